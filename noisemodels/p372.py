@@ -1,0 +1,183 @@
+"""Radio-noise levels of Recommendation ITU-R P.372 ("Radio noise").
+
+Every level is the external noise figure Fa in dB above kT0b (T0 = 290 K), for
+a short lossless vertical monopole over a perfect ground plane, the antenna the
+Recommendation refers its values to.  Frequencies are in Hz at this interface.
+
+References
+----------
+.. [1] Recommendation ITU-R P.372, "Radio noise", Section 5 (man-made noise,
+   Table 1 for the environment categories and their decile deviations),
+   Section 6 (galactic noise, Fa = 52 - 23 log10 f), Section 8 (combination
+   of noises from several sources).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+T0_K = 290.0
+"""Reference temperature of P.372 [K]."""
+
+BOLTZMANN_J_PER_K = 1.380649e-23
+"""Boltzmann constant [J/K] (exact in the 2019 SI)."""
+
+DECILE_Z = 1.282
+"""Standard-normal deviate of the 10 % and 90 % points, used by [1] Section 8."""
+
+
+@dataclass(frozen=True)
+class NoiseLevel:
+    """A noise level with its decile deviations.
+
+    Attributes
+    ----------
+    fa_db : median external noise figure [dB above kT0b]
+    du_db : upper decile deviation (90 % point minus median) [dB]
+    dl_db : lower decile deviation (median minus 10 % point) [dB]
+    """
+
+    fa_db: float | np.ndarray
+    du_db: float | np.ndarray
+    dl_db: float | np.ndarray
+
+
+@dataclass(frozen=True)
+class ManMadeCategory:
+    """Coefficients of Fam = c - d log10(f / 1 MHz) and decile deviations [dB]."""
+
+    c_db: float
+    d_db: float
+    du_db: float
+    dl_db: float
+
+
+MAN_MADE_CATEGORIES: dict[str, ManMadeCategory] = {
+    # ITU-R P.372, Section 5, Table 1 (Fam coefficients and decile deviations).
+    "city": ManMadeCategory(76.8, 27.7, 11.0, 6.7),
+    "residential": ManMadeCategory(72.5, 27.7, 10.6, 5.3),
+    "rural": ManMadeCategory(67.2, 27.7, 9.2, 4.6),
+    # P.372 gives no decile deviations for quiet rural; the rural values are
+    # the usual practice (see shared/data/p372/README.md).
+    "quiet rural": ManMadeCategory(53.6, 28.6, 9.2, 4.6),
+}
+
+GALACTIC_DECILE_DB = 2.0
+"""Decile deviation of galactic noise, upper and lower [dB] (P.372 Section 6)."""
+
+MAN_MADE_RANGE_HZ = (0.3e6, 250e6)
+"""Frequency range over which P.372 gives the man-made curves [Hz]."""
+
+
+def _freq_mhz(freq_hz):
+    f = np.asarray(freq_hz, dtype=float)
+    if np.any(~np.isfinite(f)) or np.any(f <= 0):
+        raise ValueError(f"freq_hz must be positive and finite, got {freq_hz!r}")
+    return f / 1e6
+
+
+def man_made(freq_hz, *, environment: str) -> NoiseLevel:
+    """Median man-made noise Fam of P.372 Table 1 for an environment category.
+
+    Parameters
+    ----------
+    freq_hz : frequency [Hz], scalar or array
+    environment : one of ``MAN_MADE_CATEGORIES`` ("city", "residential",
+        "rural", "quiet rural")
+
+    Returns
+    -------
+    NoiseLevel with Fam = c - d log10(f_MHz) [dB above kT0b] and the
+    category's decile deviations [dB].
+
+    Notes
+    -----
+    P.372 states the curves from 0.3 MHz; below that the same line is an
+    extrapolation (the caller decides whether to allow it).
+    """
+    try:
+        cat = MAN_MADE_CATEGORIES[environment]
+    except KeyError:
+        valid = ", ".join(repr(k) for k in MAN_MADE_CATEGORIES)
+        raise ValueError(f"environment must be one of {valid}; got {environment!r}") from None
+    f = _freq_mhz(freq_hz)
+    fa = cat.c_db - cat.d_db * np.log10(f)
+    return NoiseLevel(fa, np.full_like(fa, cat.du_db), np.full_like(fa, cat.dl_db))
+
+
+def galactic(freq_hz) -> NoiseLevel:
+    """Median galactic noise of P.372 Section 6: Fa = 52 - 23 log10(f_MHz).
+
+    This is the level above the ionosphere; it reaches the ground only in the
+    directions in which the frequency exceeds the ionosphere's penetration
+    frequency (see :func:`noisemodels.sky.penetration_elevation_rad`).
+    """
+    f = _freq_mhz(freq_hz)
+    fa = 52.0 - 23.0 * np.log10(f)
+    return NoiseLevel(fa, np.full_like(fa, GALACTIC_DECILE_DB), np.full_like(fa, GALACTIC_DECILE_DB))
+
+
+def fa_to_temperature_k(fa_db):
+    """Noise temperature [K] of an external noise figure Fa [dB above kT0b]."""
+    return T0_K * 10.0 ** (np.asarray(fa_db, dtype=float) / 10.0)
+
+
+def temperature_to_fa_db(temp_k):
+    """External noise figure Fa [dB above kT0b] of a noise temperature [K]."""
+    return 10.0 * np.log10(np.asarray(temp_k, dtype=float) / T0_K)
+
+
+def fa_to_dbm(fa_db, *, bandwidth_hz):
+    """Available noise power [dBm] in a bandwidth [Hz] for Fa [dB above kT0b]."""
+    p_w = BOLTZMANN_J_PER_K * fa_to_temperature_k(fa_db) * bandwidth_hz
+    return 10.0 * np.log10(p_w / 1e-3)
+
+
+def dbm_to_fa(power_dbm, *, bandwidth_hz):
+    """Fa [dB above kT0b] of an available noise power [dBm] in a bandwidth [Hz]."""
+    ktb_dbm = 10.0 * np.log10(BOLTZMANN_J_PER_K * T0_K * bandwidth_hz / 1e-3)
+    return np.asarray(power_dbm, dtype=float) - ktb_dbm
+
+
+def _combine_one_side(fa_db, dev_db):
+    c = 10.0 / np.log(10.0)
+    sigma = np.asarray(dev_db, dtype=float) / DECILE_Z
+    f = np.asarray(fa_db, dtype=float)
+    alpha = np.sum(np.exp(f / c + sigma**2 / (2 * c**2)), axis=0)
+    beta = np.sum(np.exp(2 * f / c + sigma**2 / c**2) * (np.exp(sigma**2 / c**2) - 1.0), axis=0)
+    sigma_t = c * np.sqrt(np.log1p(beta / alpha**2))
+    f_t = c * (np.log(alpha) - sigma_t**2 / (2 * c**2))
+    return f_t, DECILE_Z * sigma_t
+
+
+def combine(levels: list[NoiseLevel]) -> NoiseLevel:
+    """Combine noise components as log-normal variables, P.372 Section 8.
+
+    The median and each decile deviation are combined by matching the first
+    two moments of the sum of the components' powers (the moment-matching
+    method of Section 8), once with the upper and once with the lower decile
+    deviations; the median of the total is reported from the upper-decile
+    pass, as the two passes differ only through the deviations.
+
+    Notes
+    -----
+    With ``c = 10/ln 10`` and ``sigma_i = D_i / 1.282``:
+    ``alpha = sum exp(F_i/c + sigma_i^2/(2 c^2))``,
+    ``beta = sum exp(2 F_i/c + sigma_i^2/c^2) (exp(sigma_i^2/c^2) - 1)``,
+    ``sigma_T = c sqrt(ln(1 + beta/alpha^2))``,
+    ``F_T = c (ln alpha - sigma_T^2/(2 c^2))``, ``D_T = 1.282 sigma_T``.
+    Section 8 also gives a variant for deviations above 12 dB, which is not
+    implemented; every deviation used by snrgain is below that.  Two equal
+    components without spread add 3.01 dB to the median.
+    """
+    if not levels:
+        raise ValueError("combine needs at least one noise level")
+    fa = np.array([np.asarray(lv.fa_db, dtype=float) for lv in levels])
+    du = np.array([np.asarray(lv.du_db, dtype=float) for lv in levels])
+    dl = np.array([np.asarray(lv.dl_db, dtype=float) for lv in levels])
+    f_upper, d_upper = _combine_one_side(fa, du)
+    f_lower, d_lower = _combine_one_side(fa, dl)
+    # The median is the mean of the two passes (identical when du == dl).
+    return NoiseLevel(0.5 * (f_upper + f_lower), d_upper, d_lower)

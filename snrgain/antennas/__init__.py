@@ -1,0 +1,9 @@
+"""Antenna families.  ``from_spec(dict) -> Antenna``; ``Antenna.gain_dbi(freq_hz, azimuth_deg, elevation_deg)``.
+
+Importing this package registers every family in :data:`FAMILIES`.
+"""
+
+from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, from_spec, register, validate_spec
+from snrgain.antennas import isotropic, tabulated, vertical  # noqa: F401  (registers the families)
+
+__all__ = ["FAMILIES", "Antenna", "AntennaParams", "SpecError", "from_spec", "register", "validate_spec"]

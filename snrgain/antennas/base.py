@@ -1,0 +1,182 @@
+"""What every antenna family provides, and the registry of families.
+
+A family is a module with a parameter model (a pydantic model listing the
+keys users may write, with units) and an :class:`Antenna` subclass built from
+it.  :func:`register` adds it to :data:`FAMILIES`; :func:`from_spec` builds
+any antenna from a plain dict such as ``{"family": "vertical", "height":
+"18 m"}``.
+
+Inside, gains are linear and directions are in radians; the public
+``gain_dbi`` takes degrees, as users do.  Below the horizon every gain is 0.
+"""
+
+from __future__ import annotations
+
+from abc import ABC, abstractmethod
+from dataclasses import dataclass
+from typing import Any, ClassVar
+
+import numpy as np
+from pydantic import ValidationError
+
+from snrgain.fields import StrictModel
+
+
+class SpecError(ValueError):
+    """An antenna spec that cannot be built; ``problems`` lists (field path, message)."""
+
+    def __init__(self, problems: list[tuple[str, str]]):
+        self.problems = problems
+        super().__init__("; ".join(f"{p}: {m}" if p else m for p, m in problems))
+
+
+class AntennaParams(StrictModel):
+    """Keys every antenna accepts besides its family's own."""
+
+    family: str
+    name: str | None = None
+
+
+class Antenna(ABC):
+    """An antenna's far-field response over ground.
+
+    Subclasses implement :meth:`partial_gains` (or :meth:`gain_linear` where
+    the polarizations are unknown) for arrays of directions in radians.
+    """
+
+    family: ClassVar[str]
+    params: AntennaParams
+
+    def __init__(self, params: AntennaParams):
+        self.params = params
+
+    @property
+    def name(self) -> str:
+        return self.params.name or self.family
+
+    @abstractmethod
+    def partial_gains(self, freq_hz: float, azimuth_rad, elevation_rad) -> tuple[np.ndarray, np.ndarray]:
+        """Partial gains (vertical, horizontal polarization), linear, 0 below the horizon."""
+
+    def gain_linear(self, freq_hz: float, azimuth_rad, elevation_rad) -> np.ndarray:
+        """Total gain (sum of the two partial gains), linear."""
+        gv, gh = self.partial_gains(freq_hz, azimuth_rad, elevation_rad)
+        return gv + gh
+
+    def gain_dbi(self, freq_hz: float, azimuth_deg, elevation_deg) -> np.ndarray:
+        """Total gain [dBi] toward compass bearing and elevation [deg], vectorised.
+
+        -inf where the gain is zero (below the horizon, exact nulls).
+        """
+        az, el = _radians(azimuth_deg, elevation_deg)
+        with np.errstate(divide="ignore"):
+            return 10.0 * np.log10(self.gain_linear(float(freq_hz), az, el))
+
+    def partial_gains_dbi(self, freq_hz: float, azimuth_deg, elevation_deg) -> tuple[np.ndarray, np.ndarray]:
+        """Partial gains (vertical, horizontal) [dBi] toward bearing and elevation [deg]."""
+        az, el = _radians(azimuth_deg, elevation_deg)
+        gv, gh = self.partial_gains(float(freq_hz), az, el)
+        with np.errstate(divide="ignore"):
+            return 10.0 * np.log10(gv), 10.0 * np.log10(gh)
+
+    def check_frequency(self, freq_hz: float) -> None:
+        """Raise ValueError if the model is not valid at ``freq_hz`` [Hz]."""
+
+    def describe(self) -> dict[str, Any]:
+        """Parameters for output (JSON-friendly, SI units in the keys)."""
+        return {"family": self.family, "name": self.name}
+
+
+def _radians(azimuth_deg, elevation_deg):
+    az = np.radians(np.asarray(azimuth_deg, dtype=float))
+    el = np.radians(np.asarray(elevation_deg, dtype=float))
+    return np.broadcast_arrays(az, el)
+
+
+def above_horizon(elevation_rad) -> np.ndarray:
+    """Mask of directions at or above the horizon."""
+    return np.asarray(elevation_rad) >= 0.0
+
+
+@dataclass(frozen=True)
+class Family:
+    """A registered antenna family."""
+
+    name: str
+    params: type[AntennaParams]
+    build: type[Antenna]
+    summary: str
+
+
+FAMILIES: dict[str, Family] = {}
+
+
+def register(name: str, params: type[AntennaParams], summary: str):
+    """Class decorator adding an Antenna subclass to :data:`FAMILIES` under ``name``."""
+
+    def deco(cls: type[Antenna]):
+        cls.family = name
+        FAMILIES[name] = Family(name, params, cls, summary)
+        return cls
+
+    return deco
+
+
+def pydantic_problems(exc: ValidationError, prefix: str = "") -> list[tuple[str, str]]:
+    """(field path, message) pairs from a pydantic error, with the input shown."""
+    out = []
+    for err in exc.errors():
+        loc = [str(x) for x in err.get("loc", ()) if not str(x).startswith("function-")]
+        # Drop pydantic's union-branch labels (type names) from the path.
+        loc = [x for x in loc if x not in {"str", "GroundConstants", "float", "int", "list[float]"}]
+        path = ".".join(filter(None, [prefix, *loc]))
+        msg = err.get("msg", "invalid")
+        msg = msg.removeprefix("Value error, ")
+        typ = err.get("type", "")
+        if typ == "extra_forbidden":
+            msg = "unknown key (check its spelling)"
+        elif typ == "missing":
+            msg = "required key is missing"
+        elif "input" in err and typ not in {"value_error"} and not msg.endswith(repr(err["input"])):
+            shown = repr(err["input"])
+            if len(shown) > 60:
+                shown = shown[:57] + "..."
+            msg = f"{msg}; got {shown}"
+        out.append((path, msg))
+    return out
+
+
+def validate_spec(spec: dict, prefix: str = "") -> AntennaParams:
+    """Validate an antenna spec against its family's parameter model.
+
+    Raises :class:`SpecError` with every problem found, paths prefixed by ``prefix``.
+    """
+    where = (prefix + ".") if prefix else ""
+    if not isinstance(spec, dict):
+        raise SpecError([(prefix, f"an antenna must be a table of keys, got {spec!r}")])
+    family = spec.get("family")
+    if family is None:
+        valid = ", ".join(repr(k) for k in FAMILIES)
+        raise SpecError([(f"{where}family", f"required key is missing; choose one of {valid}")])
+    if not isinstance(family, str) or family not in FAMILIES:
+        valid = ", ".join(repr(k) for k in FAMILIES)
+        raise SpecError([(f"{where}family", f"unknown antenna family {family!r}; choose one of {valid}")])
+    try:
+        return FAMILIES[family].params.model_validate(spec)
+    except ValidationError as exc:
+        raise SpecError(pydantic_problems(exc, prefix)) from None
+
+
+def from_spec(spec: dict) -> Antenna:
+    """Build an antenna from a plain dict, e.g. ``{"family": "vertical", "height": "18 m"}``.
+
+    Quantities carry units as in scenario files.  Raises :class:`SpecError`
+    (a ValueError) naming every bad field.
+    """
+    params = validate_spec(spec)
+    try:
+        return FAMILIES[params.family].build(params)
+    except SpecError:
+        raise
+    except (ValueError, OSError) as exc:
+        raise SpecError([("", str(exc))]) from None

@@ -1,0 +1,154 @@
+"""A pattern read from a table (CSV), from any source: a solver, a measurement.
+
+File layout (snrgain's own):
+
+    # comment lines start with '#'
+    azimuth_deg,elevation_deg,gain_dbi
+    0,0,-12.5
+    0,5,-8.1
+    ...
+
+Columns, in any order, named in a header line: ``azimuth_deg`` (compass
+bearing), ``elevation_deg``, and either ``gain_dbi`` (total gain) or both
+``gain_v_dbi`` and ``gain_h_dbi`` (partial gains; the total is their sum), or
+all three.  The rows must form a complete grid: every azimuth of the table at
+every elevation, azimuths covering 0 to below 360 deg in any steps,
+elevations covering 0 to 90 deg.  Gains are interpolated linearly in dB,
+periodically in azimuth; values below -100 dBi are held at -100 dBi.  The
+optional ``rotate`` turns the whole table clockwise by that angle.
+"""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+from typing import Literal
+
+import numpy as np
+from scipy.interpolate import RegularGridInterpolator
+
+from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.fields import quantity
+
+FLOOR_DBI = -100.0
+KNOWN_COLUMNS = ("azimuth_deg", "elevation_deg", "gain_dbi", "gain_v_dbi", "gain_h_dbi")
+
+
+class TabulatedParams(AntennaParams):
+    family: Literal["tabulated"]
+    file: str
+    rotate: quantity("angle", ge=-2 * np.pi, le=2 * np.pi) = 0.0
+    frequency: quantity("frequency", gt=0.0) | None = None
+
+
+def read_pattern_csv(path: str | Path) -> dict[str, np.ndarray]:
+    """Read a pattern table; returns columns as float arrays.
+
+    Raises ValueError naming the file, line and problem.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise ValueError(f"{path}: cannot read pattern file ({exc.strerror or exc})") from None
+    lines = [(i + 1, ln) for i, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
+    if not lines:
+        raise ValueError(f"{path}: no header line and no data")
+    header_no, header = lines[0]
+    names = [h.strip() for h in next(csv.reader([header]))]
+    unknown = [n for n in names if n not in KNOWN_COLUMNS]
+    if unknown:
+        raise ValueError(f"{path}, line {header_no}: unknown column(s) {unknown}; allowed: {', '.join(KNOWN_COLUMNS)}")
+    for need in ("azimuth_deg", "elevation_deg"):
+        if need not in names:
+            raise ValueError(f"{path}, line {header_no}: column {need!r} is missing")
+    if "gain_dbi" not in names and not {"gain_v_dbi", "gain_h_dbi"} <= set(names):
+        raise ValueError(f"{path}, line {header_no}: give 'gain_dbi' or both 'gain_v_dbi' and 'gain_h_dbi'")
+    rows = []
+    for line_no, ln in lines[1:]:
+        cells = [c.strip() for c in next(csv.reader([ln]))]
+        if len(cells) != len(names):
+            raise ValueError(f"{path}, line {line_no}: {len(cells)} values, expected {len(names)}")
+        try:
+            rows.append([float(c) for c in cells])
+        except ValueError:
+            raise ValueError(f"{path}, line {line_no}: not a number in {ln.strip()!r}") from None
+    if not rows:
+        raise ValueError(f"{path}: header but no data rows")
+    data = np.array(rows)
+    return {n: data[:, i] for i, n in enumerate(names)}
+
+
+def _grid(path, cols):
+    az = cols["azimuth_deg"]
+    el = cols["elevation_deg"]
+    if np.any((az < 0) | (az >= 360)):
+        raise ValueError(f"{path}: azimuth_deg must lie in [0, 360)")
+    if np.any((el < -90) | (el > 90)):
+        raise ValueError(f"{path}: elevation_deg must lie in [-90, 90]")
+    az_u = np.unique(az)
+    el_u = np.unique(el)
+    if az_u.size * el_u.size != az.size:
+        raise ValueError(
+            f"{path}: rows do not form a complete grid ({az_u.size} azimuths x {el_u.size} elevations "
+            f"needs {az_u.size * el_u.size} rows, found {az.size})"
+        )
+    if el_u[0] > 0 or el_u[-1] < 90:
+        raise ValueError(f"{path}: elevations must cover 0 to 90 deg; found {el_u[0]:g} to {el_u[-1]:g}")
+    if az_u.size < 2:
+        raise ValueError(f"{path}: at least two azimuths are needed")
+    ia = np.searchsorted(az_u, az)
+    ie = np.searchsorted(el_u, el)
+    if np.unique(ia * el_u.size + ie).size != az.size:
+        raise ValueError(f"{path}: some (azimuth, elevation) pairs appear twice")
+    return az_u, el_u, ia, ie
+
+
+@register("tabulated", TabulatedParams, "pattern read from a CSV table of azimuth, elevation and gain")
+class Tabulated(Antenna):
+    def __init__(self, params: TabulatedParams):
+        super().__init__(params)
+        self.path = Path(params.file)
+        cols = read_pattern_csv(self.path)
+        az_u, el_u, ia, ie = _grid(self.path, cols)
+        self.has_polarization = "gain_v_dbi" in cols and "gain_h_dbi" in cols
+        self._interp = {}
+        fields = ["gain_v_dbi", "gain_h_dbi"] if self.has_polarization else ["gain_dbi"]
+        az_ext = np.append(az_u, az_u[0] + 360.0)
+        for f in fields:
+            grid = np.full((el_u.size, az_u.size), np.nan)
+            grid[ie, ia] = np.maximum(np.nan_to_num(cols[f], nan=FLOOR_DBI, neginf=FLOOR_DBI), FLOOR_DBI)
+            grid = np.concatenate([grid, grid[:, :1]], axis=1)
+            self._interp[f] = RegularGridInterpolator((el_u, az_ext), grid, bounds_error=False, fill_value=None)
+        self._az0 = az_u[0]
+
+    def _lookup(self, field, azimuth_rad, elevation_rad):
+        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+        az_deg = np.mod(np.degrees(az - self.params.rotate) - self._az0, 360.0) + self._az0
+        el_deg = np.clip(np.degrees(el), 0.0, 90.0)
+        pts = np.stack([el_deg.ravel(), az_deg.ravel()], axis=-1)
+        g = 10.0 ** (self._interp[field](pts).reshape(az.shape) / 10.0)
+        return np.where(above_horizon(el), g, 0.0)
+
+    def check_frequency(self, freq_hz):
+        f = self.params.frequency
+        if f is not None and abs(freq_hz - f) > 0.05 * f:
+            raise ValueError(
+                f"frequency: the pattern table is for {f / 1e6:g} MHz, the scenario asks {freq_hz / 1e6:g} MHz "
+                "(more than 5 % apart)"
+            )
+
+    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        if not self.has_polarization:
+            raise ValueError(f"{self.path}: the table gives total gain only (no gain_v_dbi/gain_h_dbi columns)")
+        return (self._lookup("gain_v_dbi", azimuth_rad, elevation_rad),
+                self._lookup("gain_h_dbi", azimuth_rad, elevation_rad))
+
+    def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
+        if self.has_polarization:
+            gv, gh = self.partial_gains(freq_hz, azimuth_rad, elevation_rad)
+            return gv + gh
+        return self._lookup("gain_dbi", azimuth_rad, elevation_rad)
+
+    def describe(self):
+        return {**super().describe(), "file": str(self.path), "rotate_deg": float(np.degrees(self.params.rotate))}

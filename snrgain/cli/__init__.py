@@ -1,0 +1,1 @@
+"""The ``snrgain`` command line: one module per subcommand."""

@@ -1,0 +1,33 @@
+"""``snrgain check``: validate a scenario without running it."""
+
+from __future__ import annotations
+
+import click
+import numpy as np
+
+from snrgain.cli.options import handle_errors, scenario_argument
+
+
+@click.command("check")
+@scenario_argument
+@handle_errors
+def check(scenario):
+    """Validate SCENARIO: every key, unit, range and antenna; run nothing.
+
+    Prints a short summary on success; lists every problem (file, field,
+    value, what is allowed) and exits with code 2 otherwise.
+    """
+    from snrgain.scenario import load
+
+    sc = load(scenario)
+    m = sc.model
+    click.echo(f"{sc.source}: valid")
+    click.echo(f"  site {m.site.name!r} at {m.site.latitude:.3f}, {m.site.longitude:.3f}")
+    click.echo(f"  {sc.freq_hz / 1e6:g} MHz, {sc.bandwidth_hz:g} Hz; {len(m.time.months)} month(s) x {len(m.time.utc_hours)} hour(s)")
+    for t in sc.targets:
+        extra = f", {t.distance_m / 1e3:.0f} km, {t.hops[0]}-{t.hops[1]} hops" if t.distance_m else ""
+        click.echo(f"  target {t.name!r}: bearing {np.degrees(t.bearing_rad):.1f} deg, elevation "
+                   f"{np.degrees(t.elevation_rad.min()):.1f}-{np.degrees(t.elevation_rad.max()):.1f} deg{extra}")
+    click.echo(f"  reference: {sc.reference.name} ({sc.reference.family})")
+    for a in sc.candidates:
+        click.echo(f"  candidate: {a.name} ({a.family})")

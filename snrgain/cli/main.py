@@ -1,0 +1,29 @@
+"""Entry point of the ``snrgain`` command."""
+
+from __future__ import annotations
+
+import click
+
+from snrgain import __version__
+from snrgain.cli.check import check
+from snrgain.cli.new import new
+from snrgain.cli.rank import rank
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="snrgain")
+def cli():
+    """How many dB of signal-to-noise ratio would a receiving antenna gain over
+    the one you have, at your site, for the stations you want, at your hours?
+
+    Describe the site in a scenario file (start with 'snrgain new'), check it
+    with 'snrgain check', and rank the candidates with 'snrgain rank'.
+    """
+
+
+cli.add_command(rank)
+cli.add_command(check)
+cli.add_command(new)
+
+if __name__ == "__main__":  # pragma: no cover
+    cli()

@@ -1,0 +1,51 @@
+"""Options and error handling shared by the subcommands.
+
+Diagnostics go to stderr, results to stdout.  Exit codes: 2 for bad input
+(an invalid scenario, a file that would be overwritten), 1 for failures.
+"""
+
+from __future__ import annotations
+
+import functools
+import sys
+
+import click
+
+from snrgain.antennas import SpecError
+from snrgain.scenario import ScenarioError
+from snrgain.units import QuantityError
+
+EXIT_BAD_INPUT = 2
+EXIT_FAILURE = 1
+
+scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=str))
+overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
+nside_option = click.option(
+    "--nside", type=click.Choice(["8", "16", "32", "64", "128"]), default=None,
+    help="HEALPix resolution of the sky (overrides the scenario; default 32, about 1.8 deg).",
+)
+
+
+def fail(message: str, code: int) -> None:
+    click.echo(f"snrgain: {message}", err=True)
+    sys.exit(code)
+
+
+def handle_errors(fn):
+    """Turn library exceptions into messages on stderr and exit codes."""
+
+    @functools.wraps(fn)
+    def wrapper(*args, **kwargs):
+        try:
+            return fn(*args, **kwargs)
+        except ScenarioError as exc:
+            n = len(exc.problems)
+            fail(f"invalid scenario ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)
+        except (SpecError, QuantityError, FileExistsError, FileNotFoundError) as exc:
+            fail(str(exc), EXIT_BAD_INPUT)
+        except ValueError as exc:
+            fail(str(exc), EXIT_BAD_INPUT)
+        except (OSError, RuntimeError, ArithmeticError) as exc:
+            fail(f"failed: {exc}", EXIT_FAILURE)
+
+    return wrapper

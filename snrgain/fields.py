@@ -1,0 +1,135 @@
+"""Field types for validated input: quantities with units, ranges, grounds.
+
+Each quantity field accepts what users write ("400 ft", "5 mS/m") and holds
+the SI float.  Range checks run on the SI value but report in the user's
+terms, so a message reads: "must be > 0 m; got '-3 ft'".
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Any
+
+import numpy as np
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field
+
+from snrgain import ground as groundmod
+from snrgain.units import DIMENSIONS, parse_db, parse_power_dbm, parse_quantity
+
+_SI_SYMBOL = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg"}
+
+
+def _fmt(x: float, dimension: str) -> str:
+    if dimension == "angle":
+        return f"{np.degrees(x):g} deg"
+    if dimension == "frequency" and x >= 1e3:
+        return f"{x / 1e6:g} MHz" if x >= 1e5 else f"{x / 1e3:g} kHz"
+    return f"{x:g} {_SI_SYMBOL[dimension]}"
+
+
+def quantity(dimension: str, *, gt=None, ge=None, lt=None, le=None):
+    """An Annotated float type that parses ``dimension`` and checks a range (SI bounds)."""
+    if dimension not in DIMENSIONS:
+        raise KeyError(dimension)
+
+    def check(value):
+        x = parse_quantity(value, dimension)
+        bounds = []
+        ok = True
+        if gt is not None:
+            ok &= x > gt
+            bounds.append(f"> {_fmt(gt, dimension)}")
+        if ge is not None:
+            ok &= x >= ge
+            bounds.append(f">= {_fmt(ge, dimension)}")
+        if lt is not None:
+            ok &= x < lt
+            bounds.append(f"< {_fmt(lt, dimension)}")
+        if le is not None:
+            ok &= x <= le
+            bounds.append(f"<= {_fmt(le, dimension)}")
+        if not ok:
+            if ge is not None and le is not None and gt is None and lt is None:
+                raise ValueError(f"must be between {_fmt(ge, dimension)} and {_fmt(le, dimension)}; got {value!r}")
+            raise ValueError(f"must be {' and '.join(bounds)}; got {value!r}")
+        return x
+
+    return Annotated[float, BeforeValidator(check)]
+
+
+def _decibels(value):
+    return parse_db(value)
+
+
+Decibels = Annotated[float, BeforeValidator(_decibels)]
+"""A ratio in dB ("12 dB" or a bare number)."""
+
+
+def _power(value):
+    return parse_power_dbm(value)
+
+
+PowerDbm = Annotated[float, BeforeValidator(_power)]
+"""A received power: "-95 dBm", "S7", "S9+10"."""
+
+
+def _degrees_number(lo, hi, what):
+    def check(value):
+        if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+            raise ValueError(f"expected {what} in degrees, got {value!r}")
+        x = np.degrees(parse_quantity(value, "angle"))
+        if not (lo <= x <= hi):
+            raise ValueError(f"must be between {lo:g} and {hi:g} degrees; got {value!r}")
+        return float(x)
+
+    return Annotated[float, BeforeValidator(check)]
+
+
+Latitude = _degrees_number(-90.0, 90.0, "a latitude")
+"""Latitude, north positive [deg] (degrees at this edge: geographic convention)."""
+Longitude = _degrees_number(-180.0, 360.0, "a longitude")
+"""Longitude, east positive [deg]."""
+Bearing = quantity("angle", ge=-2 * np.pi, le=2 * np.pi)
+"""A compass bearing, degrees clockwise from true north (bare numbers are degrees) [rad inside]."""
+Elevation = quantity("angle", ge=0.0, le=np.pi / 2)
+"""An elevation above the horizon, 0..90 degrees [rad inside]."""
+
+
+class StrictModel(BaseModel):
+    """Base for every input model: unknown keys are errors."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class GroundConstants(StrictModel):
+    """A ground given by its constants."""
+
+    conductivity: quantity("conductivity", ge=0.0, le=10.0) = Field(description="conductivity, e.g. '5 mS/m'")
+    permittivity: float = Field(ge=1.0, le=100.0, description="relative permittivity [-]")
+
+
+GroundInput = str | GroundConstants
+
+
+def make_ground(spec: Any) -> groundmod.Ground | None:
+    """A Ground from a name, a GroundConstants, or a dict of constants; None for 'perfect'."""
+    if spec is None:
+        return groundmod.GROUND_TYPES["average"]
+    if isinstance(spec, groundmod.Ground):
+        return spec
+    if isinstance(spec, str):
+        if spec == groundmod.PERFECT:
+            return None
+        return groundmod.ground_by_name(spec)
+    if isinstance(spec, dict):
+        spec = GroundConstants.model_validate(spec)
+    return groundmod.Ground(spec.conductivity, spec.permittivity)
+
+
+def ground_name_check(value):
+    if isinstance(value, str) and value != groundmod.PERFECT and value not in groundmod.GROUND_TYPES:
+        groundmod.ground_by_name(value)  # raises with the list of names
+    return value
+
+
+GroundField = Annotated[GroundInput, BeforeValidator(ground_name_check)]
+

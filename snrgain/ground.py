@@ -1,0 +1,120 @@
+"""Ground: named electrical constants and plane-wave reflection.
+
+Phasors are exp(+j omega t), so the complex relative permittivity of a ground
+of conductivity sigma is eps_c = eps_r - j sigma / (omega eps0).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+EPS0_F_PER_M = 8.8541878188e-12
+"""Vacuum permittivity [F/m] (CODATA 2022)."""
+MU0_H_PER_M = 1.25663706127e-6
+"""Vacuum permeability [H/m] (CODATA 2022)."""
+C_M_PER_S = 299_792_458.0
+"""Speed of light in vacuum [m/s] (exact)."""
+ETA0_OHM = MU0_H_PER_M * C_M_PER_S
+"""Impedance of free space [ohm]."""
+
+
+@dataclass(frozen=True)
+class Ground:
+    """Electrical constants of a homogeneous ground.
+
+    Attributes
+    ----------
+    conductivity_s_per_m : sigma [S/m]
+    permittivity : relative permittivity eps_r [-]
+    name : label for output
+    source : where the values come from
+    """
+
+    conductivity_s_per_m: float
+    permittivity: float
+    name: str = "custom"
+    source: str = "given by the user"
+
+    def __post_init__(self):
+        if not (self.conductivity_s_per_m >= 0 and np.isfinite(self.conductivity_s_per_m)):
+            raise ValueError(f"ground conductivity must be >= 0 S/m, got {self.conductivity_s_per_m!r}")
+        if not (1.0 <= self.permittivity <= 100.0):
+            raise ValueError(f"ground relative permittivity must be between 1 and 100, got {self.permittivity!r}")
+
+    def complex_permittivity(self, freq_hz):
+        """eps_c = eps_r - j sigma / (omega eps0) [-] at a frequency [Hz]."""
+        omega = 2 * np.pi * np.asarray(freq_hz, dtype=float)
+        return self.permittivity - 1j * self.conductivity_s_per_m / (omega * EPS0_F_PER_M)
+
+
+_P527 = "ITU-R P.527 (electrical characteristics of the surface of the Earth), values at MF/low HF, from memory"
+_PRACTICE = "common practice in low-band antenna modelling"
+
+GROUND_TYPES: dict[str, Ground] = {
+    "sea water": Ground(5.0, 70.0, "sea water", _P527),
+    "fresh water": Ground(3e-3, 80.0, "fresh water", _P527),
+    "wet ground": Ground(1e-2, 30.0, "wet ground", _P527),
+    "medium dry ground": Ground(1e-3, 15.0, "medium dry ground", _P527),
+    "very dry ground": Ground(1e-4, 3.0, "very dry ground", _P527),
+    "very good": Ground(3e-2, 20.0, "very good", _PRACTICE),
+    "good": Ground(1e-2, 14.0, "good", _PRACTICE),
+    "average": Ground(5e-3, 13.0, "average", _PRACTICE),
+    "poor": Ground(1e-3, 5.0, "poor", _PRACTICE),
+    "city": Ground(1e-3, 5.0, "city", _PRACTICE),
+}
+"""Named grounds.  The P.527 entries are the Recommendation's curves read at
+about 1-3 MHz; the others are the constants low-band modellers commonly use
+(average ground: 5 mS/m, eps_r 13)."""
+
+PERFECT = "perfect"
+"""Name of the perfectly conducting ground (reflection +1 vertical, -1 horizontal)."""
+
+
+def ground_by_name(name: str) -> Ground:
+    """A named ground from :data:`GROUND_TYPES`; ValueError lists the names."""
+    try:
+        return GROUND_TYPES[name]
+    except KeyError:
+        valid = ", ".join(repr(k) for k in [*GROUND_TYPES, PERFECT])
+        raise ValueError(f"ground must be one of {valid}, or given by conductivity and permittivity; got {name!r}") from None
+
+
+def fresnel_vertical(elevation_rad, eps_c):
+    """Fresnel reflection coefficient for vertical (TM, parallel) polarization.
+
+    R_v = (eps_c sin(psi) - sqrt(eps_c - cos^2 psi)) / (eps_c sin(psi) + sqrt(eps_c - cos^2 psi)),
+    psi the grazing angle (elevation) [rad], eps_c the complex relative
+    permittivity (exp(+j omega t)).  The sign convention makes R_v = +1 over a
+    perfect conductor (the image of a vertical current points the same way)
+    and R_v -> -1 at grazing incidence over any finite ground.
+
+    Reference: e.g. J. D. Kraus, "Antennas", 2nd ed., McGraw-Hill (1988),
+    Section 16-3; or C. A. Balanis, "Advanced Engineering Electromagnetics",
+    Wiley (1989), Section 5.3 (oblique incidence on a lossy half-space).
+    """
+    s = np.sin(elevation_rad)
+    root = np.sqrt(eps_c - np.cos(elevation_rad) ** 2 + 0j)
+    return (eps_c * s - root) / (eps_c * s + root)
+
+
+def fresnel_horizontal(elevation_rad, eps_c):
+    """Fresnel reflection coefficient for horizontal (TE, perpendicular) polarization.
+
+    R_h = (sin(psi) - sqrt(eps_c - cos^2 psi)) / (sin(psi) + sqrt(eps_c - cos^2 psi));
+    -1 over a perfect conductor and at grazing incidence.  Same references as
+    :func:`fresnel_vertical`.
+    """
+    s = np.sin(elevation_rad)
+    root = np.sqrt(eps_c - np.cos(elevation_rad) ** 2 + 0j)
+    return (s - root) / (s + root)
+
+
+def reflection_coefficients(ground: Ground | None, elevation_rad, freq_hz):
+    """(R_v, R_h) over ``ground`` at elevation [rad]; ``None`` means perfect ground."""
+    el = np.asarray(elevation_rad, dtype=float)
+    if ground is None:
+        return np.ones_like(el, dtype=complex), -np.ones_like(el, dtype=complex)
+    eps_c = ground.complex_permittivity(freq_hz)
+    return fresnel_vertical(el, eps_c), fresnel_horizontal(el, eps_c)

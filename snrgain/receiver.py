@@ -1,0 +1,42 @@
+"""The receiver's own noise, referred to the antenna terminals.
+
+A receiver of noise figure F adds T_rx = T0 (F - 1) [K] (the definition of
+noise figure, T0 = 290 K; e.g. H. T. Friis, "Noise figures of radio
+receivers", Proc. IRE 32(7), 419 (1944)).  Its noise floor, what it shows
+with a matched load at T0 on its input, is k T0 b F [W] in bandwidth b.  A
+measured floor in the band's bandwidth gives F back.  The full chain (feed
+line, transformer, preamplifier) builds on this.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from noisemodels.p372 import BOLTZMANN_J_PER_K, T0_K
+
+
+def receiver_temperature_k(noise_figure_db):
+    """Noise temperature [K] added by a receiver of noise figure [dB]: T0 (F - 1)."""
+    return T0_K * (10.0 ** (np.asarray(noise_figure_db, dtype=float) / 10.0) - 1.0)
+
+
+def noise_floor_dbm(noise_figure_db, *, bandwidth_hz):
+    """Receiver noise floor k T0 b F [dBm] in bandwidth [Hz]."""
+    return 10.0 * np.log10(BOLTZMANN_J_PER_K * T0_K * bandwidth_hz / 1e-3) + np.asarray(noise_figure_db, dtype=float)
+
+
+def noise_figure_from_floor_db(floor_dbm, *, bandwidth_hz):
+    """Noise figure [dB] of a receiver whose floor in bandwidth [Hz] is ``floor_dbm``."""
+    nf = np.asarray(floor_dbm, dtype=float) - 10.0 * np.log10(BOLTZMANN_J_PER_K * T0_K * bandwidth_hz / 1e-3)
+    if np.any(nf < 0):
+        raise ValueError(
+            f"noise_floor {float(np.min(floor_dbm)):g} dBm lies below kT0b in {bandwidth_hz:g} Hz "
+            "(a noise figure below 0 dB); check the value and the bandwidth"
+        )
+    return nf
+
+
+def power_dbm(temperature_k, *, bandwidth_hz):
+    """Available noise power [dBm] of a temperature [K] in a bandwidth [Hz]."""
+    with np.errstate(divide="ignore"):
+        return 10.0 * np.log10(BOLTZMANN_J_PER_K * np.asarray(temperature_k, dtype=float) * bandwidth_hz / 1e-3)

@@ -1,0 +1,371 @@
+"""Scenario files: load, validate once, and hand SI values to the rest.
+
+A scenario is a TOML file (format: README.md, "Scenario format").  Loading
+validates everything: unknown keys, quantities and their units, ranges,
+antenna parameters, the pattern files they name.  Every problem found is
+reported in one :class:`ScenarioError` naming the file, the field path, the
+value and what is allowed; nothing runs on an invalid scenario.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Literal
+
+import numpy as np
+from pydantic import Field, ValidationError, field_validator, model_validator
+
+from snrgain import targets as targetmod
+from snrgain.antennas import FAMILIES, Antenna, SpecError, validate_spec
+from snrgain.antennas.base import pydantic_problems
+from snrgain.fields import (
+    Bearing,
+    Decibels,
+    Elevation,
+    GroundField,
+    Latitude,
+    Longitude,
+    PowerDbm,
+    StrictModel,
+    make_ground,
+    quantity,
+)
+from snrgain.ground import C_M_PER_S, Ground
+
+FREQ_RANGE_HZ = (0.1e6, 30e6)
+"""Frequencies the tool accepts: medium wave to the top of HF [Hz]."""
+
+MAN_MADE_CHOICES = ("city", "residential", "rural", "quiet rural", "none")
+
+
+class ScenarioError(ValueError):
+    """An invalid scenario: ``problems`` is a list of (field path, message)."""
+
+    def __init__(self, source: str, problems: list[tuple[str, str]]):
+        self.source = source
+        self.problems = problems
+        lines = [f"{source}: {path}: {msg}" if path else f"{source}: {msg}" for path, msg in problems]
+        super().__init__("\n".join(lines))
+
+
+# -- the sections ------------------------------------------------------------
+
+class Site(StrictModel):
+    name: str = "unnamed site"
+    latitude: Latitude
+    longitude: Longitude
+    ground: GroundField = "average"
+
+
+class Band(StrictModel):
+    frequency: quantity("frequency", ge=FREQ_RANGE_HZ[0], le=FREQ_RANGE_HZ[1])
+    bandwidth: quantity("frequency", ge=10.0, le=100e3) = 500.0
+
+
+class Time(StrictModel):
+    months: list[int] = Field(default_factory=lambda: [1], min_length=1)
+    utc_hours: list[float] = Field(default_factory=lambda: [0.0], min_length=1)
+
+    @field_validator("months")
+    @classmethod
+    def _months(cls, v):
+        bad = [m for m in v if not 1 <= m <= 12]
+        if bad:
+            raise ValueError(f"months must be 1..12; got {bad}")
+        if len(set(v)) != len(v):
+            raise ValueError(f"months are listed twice: {v}")
+        return v
+
+    @field_validator("utc_hours")
+    @classmethod
+    def _hours(cls, v):
+        bad = [h for h in v if not 0 <= h < 24]
+        if bad:
+            raise ValueError(f"UTC hours must be in [0, 24); got {bad}")
+        if len(set(v)) != len(v):
+            raise ValueError(f"hours are listed twice: {v}")
+        return v
+
+
+class Sector(StrictModel):
+    start: Bearing = Field(alias="from")
+    stop: Bearing = Field(alias="to")
+    contrast: Decibels = 10.0
+
+
+class ManMade(StrictModel):
+    environment: Literal["city", "residential", "rural", "quiet rural", "none"] = "residential"
+    elevation_scale: quantity("angle", gt=0.0, le=np.pi / 2) = np.radians(10.0)
+    sector: Sector | None = None
+
+
+class Atmospheric(StrictModel):
+    model: Literal["none", "given"] = "none"
+    fa: Decibels | None = None
+    upper_decile: Decibels = 0.0
+    lower_decile: Decibels = 0.0
+    elevation_center: Elevation = np.radians(20.0)
+    elevation_width: quantity("angle", gt=0.0, le=np.pi / 2) = np.radians(10.0)
+    sector: Sector | None = None
+
+    @model_validator(mode="after")
+    def _given_needs_fa(self):
+        if self.model == "given" and self.fa is None:
+            raise ValueError("model = 'given' needs fa (the median Fa in dB above kT0b, e.g. fa = '45 dB')")
+        if self.model == "none" and self.fa is not None:
+            raise ValueError("fa is given but model is 'none'; set model = 'given' to use it")
+        return self
+
+
+class Galactic(StrictModel):
+    enabled: bool = True
+    critical_frequency_day: quantity("frequency", gt=0.0, le=30e6) = 6e6
+    critical_frequency_night: quantity("frequency", gt=0.0, le=30e6) = 3e6
+    layer_height: quantity("length", ge=80e3, le=1000e3) = 300e3
+
+
+class LocalSource(StrictModel):
+    name: str
+    bearing: Bearing
+    elevation: Elevation = np.radians(5.0)
+    spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = np.radians(10.0)
+    level: PowerDbm | None = None
+    fa: Decibels | None = None
+
+    @model_validator(mode="after")
+    def _one_level(self):
+        if (self.level is None) == (self.fa is None):
+            raise ValueError(
+                "give exactly one of level (received on the reference antenna: '-95 dBm', 'S7') "
+                "or fa (dB above kT0b on P.372's reference monopole)"
+            )
+        return self
+
+
+class Noise(StrictModel):
+    man_made: ManMade = ManMade()
+    atmospheric: Atmospheric = Atmospheric()
+    galactic: Galactic = Galactic()
+    local: list[LocalSource] = Field(default_factory=list)
+
+
+class Target(StrictModel):
+    name: str
+    weight: float = Field(default=1.0, gt=0.0)
+    bearing: Bearing | None = None
+    elevation: list[Elevation] | None = None
+    latitude: Latitude | None = None
+    longitude: Longitude | None = None
+    layer_height: quantity("length", ge=80e3, le=1000e3) = targetmod.DEFAULT_LAYER_HEIGHT_M
+    min_elevation: Elevation = targetmod.DEFAULT_MIN_ELEVATION_RAD
+
+    @field_validator("elevation", mode="before")
+    @classmethod
+    def _range(cls, v):
+        if v is None:
+            return v
+        if not isinstance(v, list):
+            v = [v, v]
+        if len(v) != 2:
+            raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {v!r}")
+        return v
+
+    @model_validator(mode="after")
+    def _one_way(self):
+        by_bearing = self.bearing is not None
+        by_place = self.latitude is not None or self.longitude is not None
+        if by_bearing == by_place:
+            raise ValueError("give either bearing (with elevation = [low, high]) or latitude and longitude")
+        if by_place and (self.latitude is None or self.longitude is None):
+            raise ValueError("a target place needs both latitude and longitude")
+        if by_bearing and self.elevation is None:
+            raise ValueError("a target by bearing needs elevation = [low, high] in degrees")
+        if self.elevation is not None and self.elevation[1] < self.elevation[0]:
+            raise ValueError("elevation range is reversed; write [low, high]")
+        return self
+
+
+class Receiver(StrictModel):
+    noise_figure: Decibels | None = None
+    noise_floor: PowerDbm | None = None
+    margin_target: Decibels = 10.0
+
+    @model_validator(mode="after")
+    def _one(self):
+        if self.noise_figure is not None and self.noise_floor is not None:
+            raise ValueError("give noise_figure or noise_floor (measured in the band's bandwidth), not both")
+        if self.noise_figure is not None and not 0.0 <= self.noise_figure <= 40.0:
+            raise ValueError(f"noise_figure must be between 0 and 40 dB; got {self.noise_figure:g} dB")
+        return self
+
+
+class Compute(StrictModel):
+    nside: Literal[8, 16, 32, 64, 128] = 32
+
+
+class ScenarioModel(StrictModel):
+    site: Site
+    band: Band
+    time: Time = Time()
+    noise: Noise = Noise()
+    target: list[Target] = Field(min_length=1)
+    reference: dict[str, Any] | None = None
+    candidate: list[dict[str, Any]] = Field(min_length=1)
+    receiver: Receiver = Receiver()
+    compute: Compute = Compute()
+
+
+# -- the loaded scenario --------------------------------------------------------
+
+DEFAULT_NOISE_FIGURE_DB = 15.0
+"""Receiver noise figure when none is given [dB]: typical of HF receivers on
+160 m with the preamplifier off (common practice)."""
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A validated scenario with its antennas built and targets resolved (SI inside)."""
+
+    source: str
+    model: ScenarioModel
+    ground: Ground | None
+    reference: Antenna
+    candidates: list[Antenna]
+    targets: list[targetmod.TargetDirections]
+    target_weights: np.ndarray
+
+    @property
+    def freq_hz(self) -> float:
+        return self.model.band.frequency
+
+    @property
+    def bandwidth_hz(self) -> float:
+        return self.model.band.bandwidth
+
+
+def _inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
+    spec = dict(spec)
+    name = spec.get("family")
+    family = FAMILIES.get(name) if isinstance(name, str) else None
+    if family is not None:
+        fields = family.params.model_fields
+        if "ground" in fields and "ground" not in spec and site_ground is not None:
+            spec["ground"] = site_ground
+        if "file" in fields and isinstance(spec.get("file"), str) and base_dir is not None:
+            p = Path(spec["file"])
+            spec["file"] = str(p if p.is_absolute() else base_dir / p)
+    return spec
+
+
+def _raw_ground(site) -> str | dict | None:
+    """The site's ground as written, for antennas that give none; None if unusable (reported elsewhere)."""
+    g = site.get("ground", "average") if isinstance(site, dict) else "average"
+    return g if isinstance(g, (str, dict)) else None
+
+
+def load(source: str | Path | dict, *, nside: int | None = None) -> Scenario:
+    """Load and validate a scenario from a path, TOML text or a dict.
+
+    Raises :class:`ScenarioError` listing every problem.
+    """
+    base_dir: Path | None = None
+    if isinstance(source, dict):
+        data, label = source, "<dict>"
+    else:
+        text, label, base_dir = _read(source)
+        try:
+            data = tomllib.loads(text)
+        except tomllib.TOMLDecodeError as exc:
+            raise ScenarioError(label, [("", f"not valid TOML: {exc}")]) from None
+    problems: list[tuple[str, str]] = []
+    try:
+        model = ScenarioModel.model_validate(data)
+    except ValidationError as exc:
+        problems.extend(pydantic_problems(exc))
+        model = None
+
+    # Antennas are validated by their own families (even when other sections failed).
+    site_ground = _raw_ground(data.get("site", {})) if isinstance(data, dict) else "average"
+    ref_spec = data.get("reference") if isinstance(data, dict) else None
+    freq = model.band.frequency if model else None
+    if ref_spec is None:
+        height = C_M_PER_S / freq / 4 if freq else 40.0
+        ref_spec = {"family": "vertical", "name": "quarter-wave vertical", "height": f"{height:.3f} m"}
+    elif isinstance(ref_spec, dict) and "family" not in ref_spec:
+        ref_spec = {**ref_spec, "family": "vertical"}
+    cand_specs = data.get("candidate", []) if isinstance(data, dict) else []
+    specs = [("reference", ref_spec)] + [(f"candidate[{i}]", s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])]
+    antennas: list[Antenna] = []
+    names = set()
+    for where, spec in specs:
+        try:
+            spec2 = _inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
+            params = validate_spec(spec2, where)
+            ant = FAMILIES[params.family].build(params)
+            if freq is not None:
+                ant.check_frequency(freq)
+        except SpecError as exc:
+            problems.extend(exc.problems)
+            continue
+        except ValueError as exc:
+            problems.append((where, str(exc)))
+            continue
+        if where != "reference":
+            if not params.name:
+                problems.append((f"{where}.name", "every candidate needs a name"))
+            elif params.name in names:
+                problems.append((f"{where}.name", f"name {params.name!r} is used twice"))
+            names.add(params.name)
+        antennas.append(ant)
+
+    tgts = []
+    if model is not None:
+        for i, t in enumerate(model.target):
+            try:
+                tgts.append(_target(t, model.site))
+            except ValueError as exc:
+                problems.append((f"target[{i}]", str(exc)))
+    if problems:
+        raise ScenarioError(label, problems)
+    if nside is not None:
+        model = model.model_copy(update={"compute": Compute(nside=nside)})
+    weights = np.array([t.weight for t in model.target])
+    return Scenario(
+        source=label,
+        model=model,
+        ground=make_ground(model.site.ground),
+        reference=antennas[0],
+        candidates=antennas[1:],
+        targets=tgts,
+        target_weights=weights / weights.sum(),
+    )
+
+
+def _read(source) -> tuple[str, str, Path | None]:
+    if isinstance(source, Path) or (isinstance(source, str) and "\n" not in source and source.endswith(".toml")):
+        path = Path(source)
+        try:
+            return path.read_text(encoding="utf-8"), str(path), path.resolve().parent
+        except OSError as exc:
+            raise ScenarioError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
+    if isinstance(source, str):
+        return source, "<text>", None
+    raise ScenarioError("<input>", [("", f"a scenario is a path, TOML text or a dict; got {type(source).__name__}")])
+
+
+def _target(t: Target, site: Site) -> targetmod.TargetDirections:
+    if t.bearing is not None:
+        return targetmod.from_bearing(
+            t.name, bearing_rad=t.bearing, elevation_lo_rad=t.elevation[0], elevation_hi_rad=t.elevation[1]
+        )
+    return targetmod.from_place(
+        t.name,
+        site_lat_deg=site.latitude,
+        site_lon_deg=site.longitude,
+        lat_deg=t.latitude,
+        lon_deg=t.longitude,
+        layer_height_m=t.layer_height,
+        min_elevation_rad=t.min_elevation,
+    )

@@ -1,0 +1,50 @@
+"""Shared paths and helpers for the tests."""
+
+from pathlib import Path
+
+import pytest
+
+REPO = Path(__file__).resolve().parents[1]
+SCENARIOS = REPO / "scenarios"
+SHARED = REPO.parent / "shared"
+P372_DIR = SHARED / "data" / "p372"
+
+
+@pytest.fixture
+def demo_path():
+    return SCENARIOS / "alder-hollow.toml"
+
+
+MINIMAL = """
+[site]
+name = "test site"
+latitude = 40.0
+longitude = -75.0
+ground = "average"
+
+[band]
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+
+[time]
+months = [1]
+utc_hours = [3]
+
+[[target]]
+name = "north-east"
+bearing = 45
+elevation = [10, 20]
+
+[reference]
+family = "vertical"
+height = "20 m"
+
+[[candidate]]
+name = "iso"
+family = "isotropic"
+"""
+
+
+@pytest.fixture
+def minimal_text():
+    return MINIMAL

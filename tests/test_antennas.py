@@ -1,0 +1,148 @@
+"""Antenna families: textbook values, invariants, the tabulated reader, bad input."""
+
+import numpy as np
+import pytest
+
+from snrgain.antennas import FAMILIES, SpecError, from_spec
+from snrgain.ground import C_M_PER_S
+
+F = 1.83e6
+QUARTER = C_M_PER_S / F / 4
+
+
+def test_short_monopole_perfect_ground_4_77_dbi():
+    # Short monopole over perfect ground: directivity 3 (1.5 doubled), 4.77 dBi (Kraus, Antennas, 2nd ed.).
+    a = from_spec({"family": "vertical", "height": "0.5 m", "ground": "perfect", "ground_loss": 0})
+    assert a.gain_dbi(F, 0.0, 0.0) == pytest.approx(10 * np.log10(3.0), abs=0.01)
+
+
+def test_quarter_wave_monopole_5_15_dbi_and_36_ohm():
+    # Quarter-wave monopole over perfect ground: 5.15 dBi and about 36.5 ohm (textbook: half-wave dipole
+    # 2.15 dBi + 3 dB, 73 ohm / 2).
+    a = from_spec({"family": "vertical", "height": f"{QUARTER} m", "ground": "perfect", "ground_loss": 0})
+    assert a.gain_dbi(F, 123.0, 0.0) == pytest.approx(5.15, abs=0.02)
+    assert a.radiation_resistance_ohm(F) == pytest.approx(36.5, abs=0.3)
+
+
+def test_vertical_is_omnidirectional_and_vertical_polarized():
+    a = from_spec({"family": "vertical", "height": "20 m", "ground": "average"})
+    g = a.gain_dbi(F, np.arange(0, 360, 30), 15.0)
+    assert np.ptp(g) < 1e-9
+    gv, gh = a.partial_gains_dbi(F, 0.0, 15.0)
+    assert np.isneginf(gh)
+
+
+def test_vertical_over_real_ground_null_at_horizon():
+    # R_v -> -1 at grazing incidence: the direct and reflected rays cancel at the horizon over finite ground.
+    a = from_spec({"family": "vertical", "height": "20 m", "ground": "average"})
+    assert np.isneginf(a.gain_dbi(F, 0.0, 0.0)) or a.gain_dbi(F, 0.0, 0.0) < -60
+
+
+def test_ground_loss_lowers_gain_by_efficiency():
+    lossless = from_spec({"family": "vertical", "height": "20 m", "ground": "average", "ground_loss": 0})
+    lossy = from_spec({"family": "vertical", "height": "20 m", "ground": "average", "ground_loss": "20 ohm"})
+    diff = lossless.gain_dbi(F, 0, 20) - lossy.gain_dbi(F, 0, 20)
+    assert diff == pytest.approx(-10 * np.log10(lossy.efficiency(F)), abs=1e-9)
+    assert diff > 0
+
+
+def test_gain_zero_below_horizon_every_family(tmp_path):
+    csv = tmp_path / "p.csv"
+    _write_table(csv, lambda az, el: np.zeros_like(az))
+    for spec in ({"family": "isotropic"}, {"family": "vertical", "height": "10 m"},
+                 {"family": "tabulated", "file": str(csv)}):
+        a = from_spec(spec)
+        assert np.all(np.isneginf(a.gain_dbi(F, [0, 90], [-1, -30])))
+
+
+def test_isotropic_zero_dbi():
+    a = from_spec({"family": "isotropic"})
+    np.testing.assert_allclose(a.gain_dbi(F, [0, 77, 300], [0, 45, 89]), 0.0)
+
+
+def _write_table(path, fn, *, step=5, polar=False):
+    az = np.arange(0, 360, step, dtype=float)
+    el = np.arange(0, 90.1, step, dtype=float)
+    lines = ["# test table", "azimuth_deg,elevation_deg," + ("gain_v_dbi,gain_h_dbi" if polar else "gain_dbi")]
+    for a in az:
+        for e in el:
+            g = fn(np.array(a), np.array(e))
+            lines.append(f"{a},{e},{g},{g - 3}" if polar else f"{a},{e},{g}")
+    path.write_text("\n".join(lines) + "\n")
+
+
+def test_tabulated_reproduces_grid_points_and_interpolates(tmp_path):
+    f = lambda az, el: -10 + 5 * np.cos(np.radians(az)) - 0.1 * el  # noqa: E731  (linear in el, smooth in az)
+    csv = tmp_path / "t.csv"
+    _write_table(csv, f)
+    a = from_spec({"family": "tabulated", "file": str(csv)})
+    assert a.gain_dbi(F, 30.0, 20.0) == pytest.approx(f(30.0, 20.0), abs=1e-9)
+    # Between grid points in elevation the linear function is reproduced exactly.
+    assert a.gain_dbi(F, 30.0, 22.5) == pytest.approx(f(30.0, 22.5), abs=1e-9)
+    # Periodic in azimuth: 357.5 deg lies between 355 and 0 (=360).
+    assert a.gain_dbi(F, 357.5, 10.0) == pytest.approx(0.5 * (f(355.0, 10.0) + f(0.0, 10.0)), abs=1e-9)
+
+
+def test_tabulated_rotate(tmp_path):
+    csv = tmp_path / "t.csv"
+    _write_table(csv, lambda az, el: -10 + 5 * np.cos(np.radians(az)))
+    a = from_spec({"family": "tabulated", "file": str(csv), "rotate": 90})
+    assert a.gain_dbi(F, 90.0, 10.0) == pytest.approx(-5.0, abs=1e-9)
+    assert a.gain_dbi(F, 270.0, 10.0) == pytest.approx(-15.0, abs=1e-9)
+
+
+def test_tabulated_polarizations_sum(tmp_path):
+    csv = tmp_path / "t.csv"
+    _write_table(csv, lambda az, el: np.full_like(az, -6.0), polar=True)
+    a = from_spec({"family": "tabulated", "file": str(csv)})
+    expect = 10 * np.log10(10 ** -0.6 + 10 ** -0.9)
+    assert a.gain_dbi(F, 10, 10) == pytest.approx(expect, abs=1e-9)
+
+
+@pytest.mark.parametrize("content, match", [
+    ("azimuth_deg,elevation_deg,gain\n0,0,1\n", "unknown column"),
+    ("azimuth_deg,gain_dbi\n0,1\n", "elevation_deg"),
+    ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,x\n90,90,1\n", "line 4: not a number"),
+    ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,1\n", "complete grid"),
+    ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,45,1\n90,0,1\n90,45,1\n", "cover 0 to 90"),
+    ("# only a comment\n", "no header"),
+])
+def test_tabulated_bad_files_name_the_problem(tmp_path, content, match):
+    csv = tmp_path / "bad.csv"
+    csv.write_text(content)
+    with pytest.raises(SpecError, match=match) as exc:
+        from_spec({"family": "tabulated", "file": str(csv)})
+    assert "bad.csv" in str(exc.value)
+
+
+def test_tabulated_missing_file():
+    with pytest.raises(SpecError, match="cannot read pattern file"):
+        from_spec({"family": "tabulated", "file": "/nonexistent/x.csv"})
+
+
+def test_spec_errors_name_field_value_and_range():
+    with pytest.raises(SpecError) as exc:
+        from_spec({"family": "vertical", "height": "-3 ft", "colour": "red"})
+    msg = str(exc.value)
+    assert "height" in msg and "'-3 ft'" in msg and "> 0 m" in msg
+    assert "colour: unknown key" in msg
+
+
+def test_unknown_family_lists_choices():
+    with pytest.raises(SpecError, match="'isotropic'.*'vertical'"):
+        from_spec({"family": "verticle"})
+
+
+def test_bare_number_length_rejected():
+    with pytest.raises(SpecError, match="bare number is ambiguous"):
+        from_spec({"family": "vertical", "height": 20})
+
+
+def test_vertical_too_tall_for_model():
+    a = from_spec({"family": "vertical", "height": "45 m"})
+    with pytest.raises(ValueError, match="wavelengths"):
+        a.check_frequency(7.1e6)
+
+
+def test_registry_has_issue_families():
+    assert {"isotropic", "vertical", "tabulated"} <= set(FAMILIES)

@@ -1,0 +1,121 @@
+"""The command line through click's CliRunner: exit codes, JSON, files, messages."""
+
+import json
+
+import pytest
+from click.testing import CliRunner
+
+from snrgain.cli.main import cli
+from snrgain.evaluate import SCHEMA_VERSION
+from tests.conftest import SCENARIOS
+
+
+@pytest.fixture
+def runner():
+    return CliRunner()
+
+
+def test_rank_table(runner, demo_path):
+    res = runner.invoke(cli, ["rank", str(demo_path)])
+    assert res.exit_code == 0, res.output
+    assert "SNR gain over TX vertical" in res.stdout
+    assert "cardioid pair toward Europe" in res.stdout
+
+
+def test_rank_json_schema_and_units(runner, demo_path):
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "json"])
+    assert res.exit_code == 0, res.stderr
+    data = json.loads(res.stdout)
+    assert data["schema_version"] == SCHEMA_VERSION
+    assert data["frequency_hz"] == 1.83e6
+    first = data["ranking"][0]
+    assert first["rank"] == 1
+    assert {"summary_snr_gain_db", "rdf_db", "front_to_back_db", "noise_dbm", "margin_db"} <= set(first)
+    assert len(first["snr_gain_db"]["values"]) == len(data["targets"])
+    assert data["ranking"][0]["summary_snr_gain_db"] >= data["ranking"][-1]["summary_snr_gain_db"]
+
+
+def test_json_matches_results_to_dict(runner, demo_path):
+    import snrgain
+
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "json"])
+    assert json.loads(res.stdout) == json.loads(json.dumps(snrgain.evaluate(demo_path).to_dict()))
+
+
+def test_rank_csv(runner, demo_path):
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "csv"])
+    assert res.exit_code == 0
+    lines = res.stdout.strip().splitlines()
+    assert lines[0].startswith("rank,antenna,family,target,month,utc_hour,snr_gain_db")
+    assert len(lines) == 1 + 6 * 2 * 2 * 8  # header + antennas x targets x months x hours
+
+
+def test_output_file_not_overwritten_without_flag(runner, demo_path, tmp_path):
+    out = tmp_path / "r.json"
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "json", "-o", str(out)])
+    assert res.exit_code == 0 and json.loads(out.read_text())["schema_version"] == SCHEMA_VERSION
+    out.write_text("keep me")
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "json", "-o", str(out)])
+    assert res.exit_code == 2
+    assert "--overwrite" in res.stderr
+    assert out.read_text() == "keep me"
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "json", "-o", str(out), "--overwrite"])
+    assert res.exit_code == 0 and out.read_text() != "keep me"
+
+
+def test_table_to_file(runner, demo_path, tmp_path):
+    out = tmp_path / "r.txt"
+    res = runner.invoke(cli, ["rank", str(demo_path), "-o", str(out)])
+    assert res.exit_code == 0
+    assert "cardioid pair toward Europe" in out.read_text()
+
+
+def test_invalid_scenario_exit_2_and_nothing_written(runner, tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text((SCENARIOS / "alder-hollow.toml").read_text().replace('"1.83 MHz"', '"1.83 MHzz"'))
+    out = tmp_path / "never.json"
+    res = runner.invoke(cli, ["rank", str(bad), "--format", "json", "-o", str(out)])
+    assert res.exit_code == 2
+    assert "bad.toml: band.frequency" in res.stderr
+    assert "Traceback" not in res.output
+    assert not out.exists()
+
+
+def test_check_valid_and_invalid(runner, demo_path, tmp_path):
+    res = runner.invoke(cli, ["check", str(demo_path)])
+    assert res.exit_code == 0 and "valid" in res.stdout and "South America" in res.stdout
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[site]\nlatitude = 100\n')
+    res = runner.invoke(cli, ["check", str(bad)])
+    assert res.exit_code == 2
+    assert "site.latitude" in res.stderr and "between -90 and 90" in res.stderr
+    assert "band: required key is missing" in res.stderr
+
+
+def test_missing_scenario_file_exit_2(runner, tmp_path):
+    res = runner.invoke(cli, ["rank", str(tmp_path / "nope.toml")])
+    assert res.exit_code == 2
+    assert "cannot read the file" in res.stderr
+
+
+def test_usage_error_exit_2(runner, demo_path):
+    res = runner.invoke(cli, ["rank", str(demo_path), "--format", "xml"])
+    assert res.exit_code == 2
+
+
+def test_new_writes_a_starter_that_runs(runner, tmp_path):
+    path = tmp_path / "start.toml"
+    res = runner.invoke(cli, ["new", str(path)])
+    assert res.exit_code == 0
+    assert "power lines" in path.read_text()
+    assert runner.invoke(cli, ["check", str(path)]).exit_code == 0
+    res = runner.invoke(cli, ["rank", str(path), "--format", "json"])
+    assert res.exit_code == 0 and json.loads(res.stdout)["ranking"]
+    res = runner.invoke(cli, ["new", str(path)])
+    assert res.exit_code == 2 and "--overwrite" in res.stderr
+
+
+def test_help_texts(runner):
+    for cmd in ([], ["rank"], ["check"], ["new"]):
+        res = runner.invoke(cli, cmd + ["--help"])
+        assert res.exit_code == 0 and "Usage" in res.output

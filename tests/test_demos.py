@@ -1,0 +1,24 @@
+"""Every demo scenario runs as it is (smoke test) and gives plausible numbers."""
+
+import numpy as np
+import pytest
+
+import snrgain
+from tests.conftest import SCENARIOS
+
+DEMOS = sorted(SCENARIOS.glob("*.toml"))
+
+
+def test_there_are_demos():
+    assert len(DEMOS) >= 2
+
+
+@pytest.mark.parametrize("path", DEMOS, ids=[p.stem for p in DEMOS])
+def test_demo_runs(path):
+    r = snrgain.evaluate(path)
+    assert r.candidates
+    for c in [r.reference, *r.candidates]:
+        assert np.all(np.isfinite(c.snr_gain_db))
+        assert np.all(np.isfinite(c.noise_dbm))
+        # Plausibility (common practice): low-band SNR gains of real designs lie within +-20 dB of a vertical.
+        assert -25 < c.summary_snr_gain_db < 25

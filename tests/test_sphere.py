@@ -1,0 +1,43 @@
+"""HEALPix sky helpers and the reference-monopole normalisation."""
+
+import healpy as hp
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from noisemodels import sky, sphere
+
+
+@pytest.mark.parametrize("nside", [8, 32, 64])
+def test_constant_map_integrates_to_4pi(nside):
+    npix = hp.nside2npix(nside)
+    total = np.sum(np.ones(npix) * hp.nside2pixarea(nside))
+    assert total == pytest.approx(4 * np.pi, rel=1e-12)
+    up = sphere.upper_hemisphere(nside)
+    assert up.solid_angle_sr.sum() == pytest.approx(2 * np.pi, rel=1e-12)
+
+
+@settings(max_examples=200, deadline=None)
+@given(az=st.floats(0, 359.99), el=st.floats(0, 89.0))
+def test_bearing_pixel_bearing_round_trip(az, el):
+    nside = 32
+    pix = sphere.direction_to_pixel(nside, np.radians(az), np.radians(el))
+    az2, el2 = sphere.pixel_to_direction(nside, pix)
+    d = sphere.angular_distance_rad(np.radians(az), np.radians(el), az2, el2)
+    # A direction lies within about one pixel size of its pixel's centre.
+    assert np.degrees(d) < 1.5 * np.degrees(hp.nside2resol(nside))
+
+
+def test_north_is_phi_zero_and_east_is_ninety():
+    theta, phi = sphere.to_healpy_angles(np.radians([0.0, 90.0]), np.radians([0.0, 30.0]))
+    np.testing.assert_allclose(phi, np.radians([0.0, 90.0]))
+    np.testing.assert_allclose(theta, np.radians([90.0, 60.0]))
+
+
+@pytest.mark.parametrize("nside", [16, 32, 64])
+def test_reference_monopole_is_lossless(nside):
+    # (1/4pi) * integral of 3 cos^2(el) over the upper hemisphere = 1 (short monopole over perfect ground).
+    up = sphere.upper_hemisphere(nside)
+    val = np.dot(sky.reference_monopole_gain(up.elevation_rad), up.solid_angle_sr) / (4 * np.pi)
+    assert val == pytest.approx(1.0, abs=2e-3)
