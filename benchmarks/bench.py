@@ -67,6 +67,25 @@ def main():
             row.append(best)
         print(f"{name:<12}{row[0] * 1e3:>15.2f}{row[1] * 1e3:>15.2f}{row[1] / row[0]:>8.1f}")
 
+    p372_dir = REPO.parent / "shared" / "data" / "p372"
+    if (p372_dir / "COEFF07W.txt").exists():
+        from noisemodels import p372, storms
+
+        lat, lon = np.meshgrid(np.arange(-90, 90.1, 1.0), np.arange(-180, 180, 1.0), indexing="ij")
+        p372.atmospheric(0.0, 0.0, month=7, freq_hz=1.83e6, time_block=0, data_dir=p372_dir)  # read the file once
+        best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, time_block=5, data_dir=p372_dir))
+        print(f"\nP.372 atmospheric Fa on a 1 deg global grid ({lat.size} sites), one block and frequency: "
+              f"{best * 1e3:.0f} ms (target well under 1 s)")
+        best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, utc_hour=4.0, data_dir=p372_dir))
+        print(f"the same for a UTC hour (six blocks, interpolated): {best * 1e3:.0f} ms")
+        grid = upper_hemisphere(32)
+        lv = p372.NoiseLevel(60.0, 0.0, 0.0)
+        best, _ = best_of(lambda: storms.storm_component(41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv,
+                                                          directions=grid, data_dir=p372_dir), n=3)
+        print(f"storm-direction sky map for one hour (nside 32): {best * 1e3:.0f} ms")
+    else:
+        print("\n(P.372 data not found beside the project; atmospheric benchmarks skipped)")
+
 
 if __name__ == "__main__":
     main()

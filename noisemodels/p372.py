@@ -181,3 +181,60 @@ def combine(levels: list[NoiseLevel]) -> NoiseLevel:
     f_lower, d_lower = _combine_one_side(fa, dl)
     # The median is the mean of the two passes (identical when du == dl).
     return NoiseLevel(0.5 * (f_upper + f_lower), d_upper, d_lower)
+
+
+def atmospheric(latitude_deg, longitude_deg, *, month: int, freq_hz, time_block=None, utc_hour=None,
+                data_dir=None) -> NoiseLevel:
+    """Median atmospheric noise FaA and its decile deviations from P.372's numerical maps.
+
+    Parameters
+    ----------
+    latitude_deg, longitude_deg : site, north and east positive [deg]; arrays broadcast
+    month : 1..12 (the coefficient file of that month is read)
+    freq_hz : frequency [Hz], 10 kHz to 30 MHz; broadcasts with the site
+    time_block : 0..5, the Recommendation's block values (local time 00-04, ..., 20-24)
+    utc_hour : instead of ``time_block``, any hour [h UTC]: a smooth value interpolated
+        in power between block centres at local mean time UTC + longitude / 15
+    data_dir : folder of COEFF01W.txt ... COEFF12W.txt; default $SNRGAIN_P372_DIR
+
+    Returns
+    -------
+    NoiseLevel with ``fa_db`` (median, dB above kT0b), ``du_db`` and ``dl_db``
+    (upper and lower decile deviations of the hourly medians in the block, dB).
+
+    Raises
+    ------
+    noisemodels.p372_maps.P372DataError when the data are missing or unreadable;
+    ValueError for arguments out of range.
+
+    References
+    ----------
+    Recommendation ITU-R P.372 and its numerical maps (ITU-R Study Group 3);
+    the method is in :mod:`noisemodels.p372_maps`.
+    """
+    from noisemodels import p372_maps as maps
+
+    if (time_block is None) == (utc_hour is None):
+        raise ValueError("give exactly one of time_block (0..5) or utc_hour")
+    f_mhz = _freq_mhz(freq_hz)
+    lo, hi = maps.FREQ_RANGE_HZ
+    if np.any(f_mhz * 1e6 < lo) or np.any(f_mhz * 1e6 > hi):
+        raise ValueError(f"freq_hz must lie between {lo:g} and {hi:g} Hz for P.372 atmospheric noise")
+    lat = np.asarray(latitude_deg, dtype=float)
+    lon = np.asarray(longitude_deg, dtype=float)
+    if np.any(np.abs(lat) > 90):
+        raise ValueError(f"latitude_deg must lie in [-90, 90], got {latitude_deg!r}")
+    coeffs = maps.load_month(month, data_dir)
+    lat_r, lon_r = np.radians(lat), np.radians(lon)
+    if time_block is not None:
+        b = np.asarray(time_block)
+        if not np.issubdtype(b.dtype, np.integer) or np.any((b < 0) | (b > 5)):
+            raise ValueError(f"time_block must be an integer 0..5, got {time_block!r}")
+        fa, du, dl = maps.block_values(coeffs, lat_r, lon_r, f_mhz, b)
+        return NoiseLevel(fa, du, dl)
+    lat_r, lon_r, f_b, hour = np.broadcast_arrays(lat_r, lon_r, f_mhz, np.asarray(utc_hour, dtype=float))
+    blocks = np.arange(6).reshape((6,) + (1,) * lat_r.ndim)
+    per_block = maps.block_values(coeffs, lat_r[None], lon_r[None], f_b[None], blocks)
+    lmt = maps.local_mean_time_h(hour, np.degrees(lon_r))
+    fa, du, dl = maps.interpolate_blocks(lmt, per_block)
+    return NoiseLevel(fa, du, dl)

@@ -128,7 +128,8 @@ def _shape(registry, name, x, params):
     return fn(x, **params)
 
 
-def _normalised(name, kind, directions, shape, level):
+def normalised_component(name, kind, directions, shape, level) -> SkyComponent:
+    """A component with brightness ``shape`` (per sr, any scale) scaled so the reference monopole sees ``level``."""
     weights = np.asarray(shape, dtype=float) * directions.solid_angle_sr
     t_ref = weighted_temperature_k(reference_monopole_gain(directions.elevation_rad), weights)
     if not t_ref > 0:
@@ -154,7 +155,7 @@ def diffuse_component(
     """
     shape = _shape(ELEVATION_SHAPES, elevation, directions.elevation_rad, elevation_params or {})
     shape = shape * _shape(AZIMUTH_SHAPES, azimuth, directions.azimuth_rad, azimuth_params or {})
-    return _normalised(name, kind, directions, shape, level)
+    return normalised_component(name, kind, directions, shape, level)
 
 
 def penetration_elevation_rad(freq_hz, *, critical_freq_hz, layer_height_m):
@@ -196,7 +197,7 @@ def galactic_component(
     when the ionosphere screens the whole sky).
     """
     free_sky = p372.galactic(freq_hz)
-    full = _normalised(name, "galactic", directions, elevation_uniform(directions.elevation_rad), free_sky)
+    full = normalised_component(name, "galactic", directions, elevation_uniform(directions.elevation_rad), free_sky)
     el_min = penetration_elevation_rad(freq_hz, critical_freq_hz=critical_freq_hz, layer_height_m=layer_height_m)
     visible = np.zeros(directions.size, dtype=bool) if np.isnan(el_min) else directions.elevation_rad >= el_min
     weights = np.where(visible, full.weight_k_sr, 0.0)
@@ -247,7 +248,7 @@ def compact_component(
 ) -> SkyComponent:
     """A local source centred on a direction, normalised to ``level`` on the reference monopole."""
     directions = compact_source_directions(azimuth_rad, elevation_rad, spread_rad, label=name)
-    return _normalised(name, kind, directions, np.ones(directions.size), level)
+    return normalised_component(name, kind, directions, np.ones(directions.size), level)
 
 
 def total_level(components: list[SkyComponent]) -> p372.NoiseLevel:

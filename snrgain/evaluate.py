@@ -76,6 +76,7 @@ class NoiseResult:
 
     components : name -> {"kind", "fa_db", "du_db", "dl_db"}, arrays (months, hours) [dB]
     total_fa_db, total_du_db, total_dl_db : P.372 Section 8 combination [dB]
+    median_power_sum_fa_db : power sum of the components' medians, what the SNR uses [dB]
     daytime : sun above the horizon at the site, (months, hours)
     """
 
@@ -84,6 +85,7 @@ class NoiseResult:
     total_du_db: np.ndarray
     total_dl_db: np.ndarray
     daytime: np.ndarray
+    median_power_sum_fa_db: np.ndarray
 
 
 @dataclass
@@ -121,6 +123,7 @@ class Results:
                 "total_fa_db": self.noise.total_fa_db,
                 "total_upper_decile_db": self.noise.total_du_db,
                 "total_lower_decile_db": self.noise.total_dl_db,
+                "median_power_sum_fa_db": self.noise.median_power_sum_fa_db,
                 "daytime": self.noise.daytime,
             },
             "receiver": self.receiver,
@@ -168,9 +171,13 @@ def _jsonable(x):
     return x
 
 
-def evaluate(source, *, nside: int | None = None) -> Results:
-    """Run a scenario (path, TOML text, dict, or a loaded Scenario) and return Results."""
-    sc = source if isinstance(source, scenariomod.Scenario) else scenariomod.load(source, nside=nside)
+def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
+    """Run a scenario (path, TOML text, dict, or a loaded Scenario) and return Results.
+
+    ``p372_dir``: folder of the ITU-R P.372 coefficient files, used when
+    neither the scenario key nor $SNRGAIN_P372_DIR names one.
+    """
+    sc = source if isinstance(source, scenariomod.Scenario) else scenariomod.load(source, nside=nside, p372_dir=p372_dir)
     m = sc.model
     grid = upper_hemisphere(nside or m.compute.nside)
     f, b = sc.freq_hz, sc.bandwidth_hz
@@ -274,13 +281,18 @@ def evaluate(source, *, nside: int | None = None) -> Results:
         months=list(m.time.months),
         utc_hours=list(m.time.utc_hours),
         targets=[_target_dict(t, w) for t, w in zip(sc.targets, weights)],
-        noise=NoiseResult(comp_levels, total[0], total[1], total[2], daytime),
+        noise=NoiseResult(comp_levels, total[0], total[1], total[2], daytime, _power_sum(comp_levels)),
         reference=reference,
         candidates=candidates,
         receiver={"noise_figure_db": nf_db, "noise_floor_dbm": floor_dbm, "margin_target_db": m.receiver.margin_target},
         nside=grid.nside,
         warnings=warnings,
     )
+
+
+def _power_sum(comp_levels) -> np.ndarray:
+    with np.errstate(divide="ignore"):
+        return 10.0 * np.log10(sum(10.0 ** (c["fa_db"] / 10.0) for c in comp_levels.values()))
 
 
 def _target_dict(t, w) -> dict[str, Any]:

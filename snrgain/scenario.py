@@ -102,21 +102,41 @@ class ManMade(StrictModel):
 
 
 class Atmospheric(StrictModel):
-    model: Literal["none", "given"] = "none"
+    model: Literal["none", "given", "p372"] = "none"
     fa: Decibels | None = None
     upper_decile: Decibels = 0.0
     lower_decile: Decibels = 0.0
+    arrival: Literal["storms", "uniform", "sector"] | None = None
     elevation_center: Elevation = np.radians(20.0)
     elevation_width: quantity("angle", gt=0.0, le=np.pi / 2) = np.radians(10.0)
     sector: Sector | None = None
+    layer_height: quantity("length", ge=80e3, le=1000e3) = 250e3
+    data_dir: str | None = None
 
     @model_validator(mode="after")
-    def _given_needs_fa(self):
+    def _consistent(self):
         if self.model == "given" and self.fa is None:
             raise ValueError("model = 'given' needs fa (the median Fa in dB above kT0b, e.g. fa = '45 dB')")
-        if self.model == "none" and self.fa is not None:
-            raise ValueError("fa is given but model is 'none'; set model = 'given' to use it")
+        if self.model != "given" and self.fa is not None:
+            raise ValueError(f"fa is given but model is {self.model!r}; set model = 'given' to use it")
+        if self.arrival == "sector" and self.sector is None:
+            raise ValueError("arrival = 'sector' needs sector = { from = ..., to = ... }")
+        if self.sector is not None and self.arrival not in (None, "sector"):
+            raise ValueError(f"sector is used only with arrival = 'sector', not {self.arrival!r}")
         return self
+
+    @property
+    def arrival_model(self) -> str:
+        """The arrival model in force: as given, else storms for P.372, sector if a sector is given, else uniform."""
+        if self.arrival is not None:
+            return self.arrival
+        if self.sector is not None:
+            return "sector"
+        return "storms" if self.model == "p372" else "uniform"
+
+    @property
+    def needs_data(self) -> bool:
+        return self.model == "p372" or (self.model == "given" and self.arrival_model == "storms")
 
 
 class Galactic(StrictModel):
@@ -235,6 +255,7 @@ class Scenario:
     candidates: list[Antenna]
     targets: list[targetmod.TargetDirections]
     target_weights: np.ndarray
+    p372_dir: Path | None = None
 
     @property
     def freq_hz(self) -> float:
@@ -265,10 +286,13 @@ def _raw_ground(site) -> str | dict | None:
     return g if isinstance(g, (str, dict)) else None
 
 
-def load(source: str | Path | dict, *, nside: int | None = None) -> Scenario:
+def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str | Path | None = None) -> Scenario:
     """Load and validate a scenario from a path, TOML text or a dict.
 
-    Raises :class:`ScenarioError` listing every problem.
+    ``p372_dir`` is the folder of the ITU-R P.372 coefficient files given on
+    the command line; the scenario key ``noise.atmospheric.data_dir`` and the
+    environment variable SNRGAIN_P372_DIR take precedence over it, in that
+    order.  Raises :class:`ScenarioError` listing every problem.
     """
     base_dir: Path | None = None
     if isinstance(source, dict):
@@ -327,6 +351,12 @@ def load(source: str | Path | dict, *, nside: int | None = None) -> Scenario:
                 tgts.append(_target(t, model.site))
             except ValueError as exc:
                 problems.append((f"target[{i}]", str(exc)))
+    data_dir = None
+    if model is not None and model.noise.atmospheric.needs_data:
+        try:
+            data_dir = _p372_dir(model, base_dir, p372_dir)
+        except ValueError as exc:
+            problems.append(("noise.atmospheric", str(exc)))
     if problems:
         raise ScenarioError(label, problems)
     if nside is not None:
@@ -340,7 +370,30 @@ def load(source: str | Path | dict, *, nside: int | None = None) -> Scenario:
         candidates=antennas[1:],
         targets=tgts,
         target_weights=weights / weights.sum(),
+        p372_dir=data_dir,
     )
+
+
+def _p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
+    """Resolve and check the P.372 data folder: scenario key, then $SNRGAIN_P372_DIR, then the option."""
+    import os
+
+    from noisemodels import p372_maps
+
+    key = model.noise.atmospheric.data_dir
+    if key is not None:
+        p = Path(key).expanduser()
+        chosen = p if p.is_absolute() or base_dir is None else base_dir / p
+    elif os.environ.get(p372_maps.ENV_VAR):
+        chosen = Path(os.environ[p372_maps.ENV_VAR])
+    elif option is not None:
+        chosen = Path(option)
+    else:
+        raise p372_maps.P372DataError(
+            "P.372 atmospheric noise is asked for, but no data folder is set. " + p372_maps.HOW_TO_GET)
+    for month in model.time.months:
+        p372_maps.load_month(month, chosen)  # raises naming the file and section at fault
+    return chosen
 
 
 def _read(source) -> tuple[str, str, Path | None]:

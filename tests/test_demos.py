@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 import snrgain
-from tests.conftest import SCENARIOS
+from tests.conftest import P372_DIR, SCENARIOS
 
 DEMOS = sorted(SCENARIOS.glob("*.toml"))
 
@@ -14,7 +14,9 @@ def test_there_are_demos():
 
 
 @pytest.mark.parametrize("path", DEMOS, ids=[p.stem for p in DEMOS])
-def test_demo_runs(path):
+def test_demo_runs(path, monkeypatch):
+    # Demos that ask for P.372 atmospheric noise read the ITU-R data from ../shared/data/p372.
+    monkeypatch.setenv("SNRGAIN_P372_DIR", str(P372_DIR))
     r = snrgain.evaluate(path)
     assert r.candidates
     for c in [r.reference, *r.candidates]:

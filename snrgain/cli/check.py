@@ -5,13 +5,14 @@ from __future__ import annotations
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, scenario_argument
+from snrgain.cli.options import handle_errors, p372_dir_option, scenario_argument
 
 
 @click.command("check")
 @scenario_argument
+@p372_dir_option
 @handle_errors
-def check(scenario):
+def check(scenario, p372_dir):
     """Validate SCENARIO: every key, unit, range and antenna; run nothing.
 
     Prints a short summary on success; lists every problem (file, field,
@@ -19,7 +20,7 @@ def check(scenario):
     """
     from snrgain.scenario import load
 
-    sc = load(scenario)
+    sc = load(scenario, p372_dir=p372_dir)
     m = sc.model
     click.echo(f"{sc.source}: valid")
     click.echo(f"  site {m.site.name!r} at {m.site.latitude:.3f}, {m.site.longitude:.3f}")

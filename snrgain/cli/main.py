@@ -7,6 +7,7 @@ import click
 from snrgain import __version__
 from snrgain.cli.check import check
 from snrgain.cli.new import new
+from snrgain.cli.noise import noise
 from snrgain.cli.rank import rank
 
 
@@ -24,6 +25,7 @@ def cli():
 cli.add_command(rank)
 cli.add_command(check)
 cli.add_command(new)
+cli.add_command(noise)
 
 if __name__ == "__main__":  # pragma: no cover
     cli()

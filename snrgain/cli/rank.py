@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from snrgain.cli.options import handle_errors, nside_option, overwrite_option, scenario_argument
+from snrgain.cli.options import handle_errors, nside_option, overwrite_option, p372_dir_option, scenario_argument
 
 
 @click.command("rank")
@@ -16,8 +16,9 @@ from snrgain.cli.options import handle_errors, nside_option, overwrite_option, s
               help="Write to this file instead of standard output (whole or not at all).")
 @overwrite_option
 @nside_option
+@p372_dir_option
 @handle_errors
-def rank(scenario, fmt, output, overwrite, nside):
+def rank(scenario, fmt, output, overwrite, nside, p372_dir):
     """Rank the SCENARIO's candidate antennas by SNR gain over its reference antenna.
 
     SNR gain is (S/N of the candidate) / (S/N of the reference) toward the
@@ -30,7 +31,7 @@ def rank(scenario, fmt, output, overwrite, nside):
 
     if output is not None:
         out.check_writable(output, overwrite=overwrite)
-    results = evaluate(scenario, nside=int(nside) if nside else None)
+    results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     if fmt == "json":

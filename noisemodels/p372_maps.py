@@ -1,0 +1,215 @@
+"""ITU-R P.372 atmospheric noise from the numerical maps of ITU-R Study Group 3.
+
+The coefficient files ``COEFF01W.txt`` ... ``COEFF12W.txt`` are published by
+ITU-R Study Group 3 with its software for Recommendation ITU-R P.372; they are
+not part of snrgain.  This module finds the four sections that serve
+atmospheric noise by their headers (``fakp(29,16,6)``, ``fakabp(2,6)``,
+``dud(5,12,5)``, ``fam(14,12)``) and evaluates the method of the numerical
+mapping (Zacharisen and Jones, OT/ITS Research Report 2, 1970; Lucas and
+Harper, NBS Technical Note 318, 1965), as written out step by step in the
+data folder's README:
+
+1. longitude series  Z_j = sum_k fakp[b,k,j] sin((k+1) lon/2) + fakp[b,15,j];
+2. latitude series   Fam1 = sum_j Z_j sin((j+1)(lat + pi/2)) + fakabp[b,0] + fakabp[b,1] (lat + pi/2),
+   the median at 1 MHz;
+3. frequency:        FaA = CZ PZ(u) + PX(u), CZ = Fam1 (2 - PZ(-0.75)) - PX(-0.75),
+   u = (8 * 2**log10(f_MHz) - 11) / 4, PZ and PX degree-6 polynomials from fam[t];
+4. deciles:          D_u, D_l = degree-4 polynomials in log10(f_MHz) (f capped at 20 MHz)
+   from dud[0, t] and dud[1, t];
+
+with t = b north of the equator and b + 6 south of it.  Time blocks b = 0..5
+are local time 00-04, ..., 20-24.  Between blocks the value at each block
+centre (02, 06, ..., 22 h local mean time) is interpolated linearly in power
+(the deciles linearly in dB), wrapping at midnight.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+
+import numpy as np
+
+ENV_VAR = "SNRGAIN_P372_DIR"
+SECTIONS = {"fakp": (29, 16, 6), "fakabp": (2, 6), "dud": (5, 12, 5), "fam": (14, 12)}
+FREQ_RANGE_HZ = (10e3, 30e6)
+"""Frequencies accepted [Hz]; the deciles' curves are held at their 20 MHz values above 20 MHz."""
+
+HOW_TO_GET = (
+    "The ITU-R P.372 coefficient files COEFF01W.txt ... COEFF12W.txt are published by ITU-R Study "
+    "Group 3 with its software for Recommendation ITU-R P.372 (ITU-R SG3 software and data pages). "
+    f"Put them in a folder and name it with the scenario key noise.atmospheric.data_dir, the environment "
+    f"variable {ENV_VAR}, or the --p372-dir option; or give the level by hand: "
+    "[noise.atmospheric] model = \"given\", fa = \"45 dB\"."
+)
+
+
+class P372DataError(ValueError):
+    """The P.372 coefficient data are missing or unreadable."""
+
+
+@dataclass(frozen=True)
+class AtmosphericCoefficients:
+    """The four noise sections of one month's file, indexed as numpy arrays.
+
+    fakp[b, k, j], fakabp[b, i], dud[s, t, n], fam[t, n] (Fortran order reversed).
+    """
+
+    month: int
+    path: Path
+    fakp: np.ndarray
+    fakabp: np.ndarray
+    dud: np.ndarray
+    fam: np.ndarray
+
+
+_HEADER = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_]*)\s*\(\s*(\d+(?:\s*,\s*\d+)*)\s*\)\s*$")
+
+
+def resolve_data_dir(data_dir: str | Path | None = None) -> Path:
+    """The folder holding the coefficient files: ``data_dir`` if given, else $SNRGAIN_P372_DIR."""
+    if data_dir is None:
+        env = os.environ.get(ENV_VAR)
+        if not env:
+            raise P372DataError(f"P.372 atmospheric-noise data folder not set. {HOW_TO_GET}")
+        data_dir = env
+    path = Path(data_dir).expanduser()
+    if not path.is_dir():
+        raise P372DataError(f"P.372 data folder {path} does not exist or is not a folder. {HOW_TO_GET}")
+    return path
+
+
+def month_file(data_dir: Path, month: int) -> Path:
+    if not (isinstance(month, (int, np.integer)) and 1 <= int(month) <= 12):
+        raise ValueError(f"month must be an integer 1..12, got {month!r}")
+    return Path(data_dir) / f"COEFF{int(month):02d}W.txt"
+
+
+def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
+    """Read the four noise sections of one month's coefficient file.
+
+    Raises P372DataError naming the file, and the section or line at fault.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="latin-1")
+    except OSError as exc:
+        raise P372DataError(f"{path}: cannot read P.372 coefficient file ({exc.strerror or exc}). {HOW_TO_GET}") from None
+    values: dict[str, list[float]] = {}
+    dims: dict[str, tuple[int, ...]] = {}
+    current = None
+    for line_no, line in enumerate(text.replace("\x1a", "").splitlines(), start=1):
+        m = _HEADER.match(line)
+        if m:
+            name = m.group(1)
+            current = name if name in SECTIONS else None
+            if current is not None:
+                dims[name] = tuple(int(x) for x in m.group(2).split(","))
+                values[name] = []
+            continue
+        if current is None or not line.strip():
+            continue
+        try:
+            values[current].extend(float(x) for x in line.split())
+        except ValueError:
+            raise P372DataError(f"{path}, line {line_no}: section {current}: not a number in {line.strip()!r}") from None
+    arrays = {}
+    for name, expect in SECTIONS.items():
+        if name not in values:
+            raise P372DataError(f"{path}: section {name}{expect} not found; is this a P.372 coefficient file?")
+        if dims[name] != expect:
+            raise P372DataError(f"{path}: section {name} has dimensions {dims[name]}, expected {expect}")
+        n = int(np.prod(expect))
+        if len(values[name]) != n:
+            raise P372DataError(f"{path}: section {name}{expect} holds {len(values[name])} values, expected {n}")
+        arrays[name] = np.array(values[name]).reshape(expect[::-1])
+    return AtmosphericCoefficients(month, path, arrays["fakp"], arrays["fakabp"], arrays["dud"], arrays["fam"])
+
+
+@lru_cache(maxsize=24)
+def _cached(path_str: str, month: int, mtime: float) -> AtmosphericCoefficients:
+    return read_coefficients(path_str, month)
+
+
+def load_month(month: int, data_dir: str | Path | None = None) -> AtmosphericCoefficients:
+    """The coefficients of a month (cached per file)."""
+    path = month_file(resolve_data_dir(data_dir), month)
+    try:
+        mtime = path.stat().st_mtime
+    except OSError:
+        raise P372DataError(f"{path}: P.372 coefficient file for month {month} not found. {HOW_TO_GET}") from None
+    return _cached(str(path), int(month), mtime)
+
+
+def _horner(coeffs, u):
+    """Evaluate polynomials, highest power first; coeffs (..., n) broadcast with u."""
+    out = np.zeros(np.broadcast_shapes(np.shape(u), np.shape(coeffs)[:-1]))
+    for i in range(np.shape(coeffs)[-1]):
+        out = out * u + coeffs[..., i]
+    return out
+
+
+def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
+    """Median atmospheric noise at 1 MHz, Fam1 [dB above kT0b], steps 1-2 (vectorised).
+
+    ``block`` broadcasts with the site arrays (integers 0..5).
+    """
+    lat = np.asarray(lat_rad, dtype=float)
+    q = np.mod(np.asarray(lon_rad, dtype=float), 2 * np.pi) / 2.0
+    b = np.asarray(block, dtype=int)
+    lat, q, b = np.broadcast_arrays(lat, q, b)
+    sin_k = np.sin(q[..., None] * np.arange(1, 16))  # (..., 15)
+    p = lat + np.pi / 2
+    sin_j = np.sin(p[..., None] * np.arange(1, 30))  # (..., 29)
+    out = np.empty(lat.shape)
+    for blk in np.unique(b):
+        sel = b == blk
+        z = sin_k[sel] @ c.fakp[blk, :15, :] + c.fakp[blk, 15, :]  # (n, 29)
+        out[sel] = np.einsum("nj,nj->n", z, sin_j[sel]) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * p[sel]
+    return out
+
+
+def block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block):
+    """(FaA, D_u, D_l) [dB] for a time block, steps 1-4 (vectorised)."""
+    lat = np.asarray(lat_rad, dtype=float)
+    f = np.asarray(freq_mhz, dtype=float)
+    b = np.asarray(block, dtype=int)
+    fam1 = fam_1mhz(c, lat, lon_rad, b)
+    lat, f, b, fam1 = np.broadcast_arrays(lat, f, b, fam1)
+    t = np.where(lat >= 0, b, b + 6)
+    pz_c = c.fam[t, 0:7]
+    px_c = c.fam[t, 7:14]
+    u0 = -0.75
+    cz = fam1 * (2.0 - _horner(pz_c, u0)) - _horner(px_c, u0)
+    u = (8.0 * 2.0 ** np.log10(f) - 11.0) / 4.0
+    fa = cz * _horner(pz_c, u) + _horner(px_c, u)
+    x = np.log10(np.minimum(f, 20.0))
+    du = _horner(c.dud[0, t, :], x)
+    dl = _horner(c.dud[1, t, :], x)
+    return fa, du, dl
+
+
+def local_mean_time_h(utc_hour, lon_deg):
+    """Local mean time [h] = UTC + east longitude / 15 deg, in [0, 24)."""
+    return np.mod(np.asarray(utc_hour, dtype=float) + np.asarray(lon_deg, dtype=float) / 15.0, 24.0)
+
+
+def interpolate_blocks(lmt_h, values_by_block):
+    """Blend block values (axis 0 = block 0..5) at local mean times, linear in power for Fa.
+
+    ``values_by_block`` is a tuple (fa, du, dl) of arrays with a leading axis of 6.
+    """
+    fa, du, dl = values_by_block
+    s = (np.asarray(lmt_h, dtype=float) - 2.0) / 4.0  # 0 at block 0's centre
+    lo = np.floor(s).astype(int) % 6
+    hi = (lo + 1) % 6
+    w = s - np.floor(s)
+
+    def pick(arr, idx):
+        return np.take_along_axis(arr, idx[None, ...], axis=0)[0]
+
+    p = (1 - w) * 10 ** (pick(fa, lo) / 10) + w * 10 ** (pick(fa, hi) / 10)
+    return 10 * np.log10(p), (1 - w) * pick(du, lo) + w * pick(du, hi), (1 - w) * pick(dl, lo) + w * pick(dl, hi)

@@ -1,0 +1,111 @@
+"""``snrgain noise``: the noise components at a site over 24 UTC hours."""
+
+from __future__ import annotations
+
+import json
+
+import click
+import numpy as np
+
+from snrgain.cli.options import handle_errors, overwrite_option, p372_dir_option
+
+
+@click.command("noise")
+@click.option("--lat", "lat", type=click.FloatRange(-90, 90), required=True, help="Site latitude [deg, north positive].")
+@click.option("--lon", "lon", type=click.FloatRange(-180, 360), required=True, help="Site longitude [deg, east positive].")
+@click.option("--month", type=click.IntRange(1, 12), required=True, help="Month, 1-12.")
+@click.option("--frequency", required=True, help="Frequency with its unit, e.g. '1.83 MHz'.")
+@click.option("--environment", type=click.Choice(["city", "residential", "rural", "quiet rural", "none"]),
+              default="residential", show_default=True, help="Man-made noise category of ITU-R P.372.")
+@click.option("--galactic/--no-galactic", default=True, show_default=True, help="Include galactic noise.")
+@click.option("--hour", type=click.FloatRange(0, 24, max_open=True), default=4.0, show_default=True,
+              help="UTC hour for the direction distribution of atmospheric noise.")
+@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=str), default=None,
+              help="Write to this file (JSON) instead of standard output.")
+@overwrite_option
+@p372_dir_option
+@handle_errors
+def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, overwrite, p372_dir):
+    """Noise at a site over 24 UTC hours: P.372 atmospheric, man-made and galactic.
+
+    Levels are Fa, dB above kT0b, on P.372's reference antenna (a short
+    vertical over perfect ground), with the P.372 Section 8 total and its
+    decile deviations; then where atmospheric noise arrives from at --hour.
+    The P.372 data folder comes from $SNRGAIN_P372_DIR, else --p372-dir.
+    """
+    import os
+
+    from noisemodels.p372_maps import ENV_VAR
+    from snrgain import output as out
+    from snrgain.noiseday import noise_over_day
+    from snrgain.units import parse_quantity
+
+    data_dir = os.environ.get(ENV_VAR) or p372_dir
+    if output is not None:
+        out.check_writable(output, overwrite=overwrite)
+    try:
+        f = parse_quantity(frequency, "frequency")
+    except ValueError as exc:
+        raise ValueError(f"--frequency: {exc}") from None
+    if not 0.1e6 <= f <= 30e6:
+        raise ValueError(f"--frequency must be between 0.1 and 30 MHz; got {frequency!r}")
+    data = noise_over_day(lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic,
+                          data_dir=data_dir, hour=hour)
+    from snrgain.evaluate import _jsonable
+
+    if fmt == "json" or output is not None:
+        text = json.dumps(_jsonable(data), sort_keys=True, indent=2, allow_nan=False) + "\n"
+        if output is None:
+            click.echo(text, nl=False)
+        else:
+            out.write_whole(output, text, overwrite=overwrite)
+            click.echo(f"wrote {output}", err=True)
+        return
+    _print_table(data)
+
+
+def _print_table(data):
+    from rich.console import Console
+    from rich.table import Table
+
+    console = Console()
+    if not console.is_terminal:
+        console = Console(width=120)
+    t = Table(title=f"Noise Fa (dB above kT0b) at {data['latitude_deg']:.2f}, {data['longitude_deg']:.2f}, "
+                    f"month {data['month']}, {data['frequency_hz'] / 1e6:g} MHz (median, +upper/-lower decile)",
+              title_justify="left")
+    t.add_column("UTC", justify="right")
+    names = list(data["components"])
+    for n in names:
+        t.add_column(n, justify="right")
+    t.add_column("total (P.372 s.8)", justify="right", style="bold")
+    t.add_column("sum of medians", justify="right")
+
+    def cell(c, i):
+        fa = c["fa_db"][i]
+        if not np.isfinite(fa):
+            return "screened"
+        return f"{fa:.1f} +{c['du_db'][i]:.1f}/-{c['dl_db'][i]:.1f}"
+
+    for i, h in enumerate(data["utc_hours"]):
+        t.add_row(f"{h:02.0f}", *[cell(data["components"][n], i) for n in names], cell(data["total"], i),
+                  f"{data['median_power_sum_fa_db'][i]:.1f}")
+    console.print(t)
+    console.print("The P.372 Section 8 total treats each component as log-normal; with decile deviations above "
+                  "about 12 dB its median can fall below the strongest component's (the Recommendation's variant "
+                  "for such deviations is not implemented). The power sum of the medians is what the SNR "
+                  "calculation uses.", style="dim")
+    d = data["directions"]
+    s = Table(title=f"Atmospheric noise arrival at {d['utc_hour']:g} UTC (storm model): share of power by bearing",
+              title_justify="left")
+    s.add_column("bearing", justify="right")
+    s.add_column("share %", justify="right")
+    s.add_column("bar")
+    s.add_column("mean elevation", justify="right")
+    for sec in d["sectors"]:
+        el = "-" if sec["mean_elevation_deg"] is None else f"{sec['mean_elevation_deg']:.0f} deg"
+        s.add_row(f"{sec['bearing_deg']:.0f} deg", f"{sec['share_percent']:.1f}", "#" * int(round(sec["share_percent"] / 2)), el)
+    console.print(s)
+    bands = ", ".join(f"{b['from_deg']}-{b['to_deg']} deg: {b['share_percent']:.0f} %" for b in d["elevation_bands"])
+    console.print(f"By elevation: {bands}")
