@@ -54,10 +54,12 @@ def main():
 
     specs = {
         "isotropic": {"family": "isotropic"},
+        "beverage 300 m": {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"},
+        "bog 80 m": {"family": "bog", "length": "80 m", "ground": "average"},
         "vertical": {"family": "vertical", "height": "18 m"},
         "tabulated": {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")},
     }
-    print(f"\n{'family':<12}{'nside 32 [ms]':>15}{'nside 64 [ms]':>15}{'ratio':>8}")
+    print(f"\n{'family':<16}{'nside 32 [ms]':>15}{'nside 64 [ms]':>15}{'ratio':>8}")
     for name, spec in specs.items():
         ant = from_spec(spec)
         row = []
@@ -65,7 +67,9 @@ def main():
             g = upper_hemisphere(nside)
             best, _ = best_of(lambda: ant.gain_linear(1.83e6, g.azimuth_rad, g.elevation_rad), n=20)
             row.append(best)
-        print(f"{name:<12}{row[0] * 1e3:>15.2f}{row[1] * 1e3:>15.2f}{row[1] / row[0]:>8.1f}")
+        print(f"{name:<16}{row[0] * 1e3:>15.2f}{row[1] * 1e3:>15.2f}{row[1] / row[0]:>8.1f}")
+
+    long_wire_benchmarks(from_spec, upper_hemisphere)
 
     p372_dir = REPO.parent / "shared" / "data" / "p372"
     if (p372_dir / "COEFF07W.txt").exists():
@@ -85,6 +89,66 @@ def main():
         print(f"storm-direction sky map for one hour (nside 32): {best * 1e3:.0f} ms")
     else:
         print("\n(P.372 data not found beside the project; atmospheric benchmarks skipped)")
+
+
+def long_wire_benchmarks(from_spec, upper_hemisphere):
+    """A 300 m wire: our pattern vs the same directions through PyNEC; a 1,000-design RDF sweep."""
+    from snrgain import wiredesign
+
+    grid = upper_hemisphere(32)
+    spec = {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "perfect", "feed_ground": 0,
+            "far_ground": 0, "termination": 500}
+    ant = from_spec(spec)
+    ours, _ = best_of(lambda: ant.gain_linear(1.83e6, grid.azimuth_rad, grid.elevation_rad), n=20)
+    print(f"\n300 m Beverage, full-sphere pattern ({grid.size} directions, nside 32): {ours * 1e3:.2f} ms (target <= 20 ms)")
+    try:
+        import PyNEC  # noqa: F401
+    except ImportError:
+        print("PyNEC not installed (pip install '.[nec]'): NEC-2 ratio skipped")
+    else:
+        lossy = from_spec({**spec, "ground": "average"})
+        ours_lossy, _ = best_of(lambda: lossy.gain_linear(1.83e6, grid.azimuth_rad, grid.elevation_rad), n=20)
+        for label, gn, mine in (("Sommerfeld ground (GN 2), average soil", "sommerfeld", ours_lossy),
+                                ("perfect ground (GN 1)", "perfect", ours)):
+            t = _pynec_pattern_time(gn)
+            print(f"PyNEC over {label}, same geometry and number of directions: {t * 1e3:.0f} ms; "
+                  f"ours {mine * 1e3:.2f} ms -> {t / mine:.0f}x faster (target >= 50x)")
+    lengths = np.linspace(150, 400, 10)
+    terms = np.linspace(300, 800, 10)
+    bearings = np.arange(0, 360, 36.0)
+    base = {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"}
+    t0 = time.perf_counter()
+    out = wiredesign.sweep_rdf(base, 1.83e6, lengths_m=lengths, terminations_ohm=terms, bearings_deg=bearings)
+    dt = time.perf_counter() - t0
+    print(f"RDF sweep of {out.size} designs (length x termination x bearing), nside 32: {dt:.2f} s (target well under 10 s)")
+
+
+def _pynec_pattern_time(ground):
+    """Wall time of PyNEC solving the 300 m wire and evaluating the same number of directions."""
+    from PyNEC import nec_context
+
+    def run():
+        lam = 299.792458 / 1.83
+        ns = int(np.ceil(300 / (lam / 40)))
+        ctx = nec_context()
+        geo = ctx.get_geometry()
+        geo.wire(1, 1, 0, 0, 0, 0, 0, 2.5, 8e-4, 1, 1)
+        geo.wire(2, ns, 0, 0, 2.5, 300, 0, 2.5, 8e-4, 1, 1)
+        geo.wire(3, 1, 300, 0, 2.5, 300, 0, 0, 8e-4, 1, 1)
+        ctx.geometry_complete(1)
+        if ground == "perfect":
+            ctx.gn_card(1, 0, 0, 0, 0, 0, 0, 0)
+        else:
+            ctx.gn_card(2, 0, 13.0, 0.005, 0, 0, 0, 0)
+        ctx.ld_card(0, 3, 1, 1, 500, 0, 0)
+        ctx.ex_card(0, 1, 1, 0, 1.0, 0, 0, 0, 0, 0)
+        ctx.fr_card(0, 1, 1.83, 0)
+        # About the same number of directions as the HEALPix grid: 46 x 135 = 6,210.
+        ctx.rp_card(0, 46, 135, 0, 5, 0, 0, 0.0, 0.0, 2.0, 360 / 135, 0, 0)
+        ctx.get_radiation_pattern(0).get_gain()
+
+    best, _ = best_of(run, n=3)
+    return best
 
 
 if __name__ == "__main__":

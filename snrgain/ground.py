@@ -117,4 +117,7 @@ def reflection_coefficients(ground: Ground | None, elevation_rad, freq_hz):
     if ground is None:
         return np.ones_like(el, dtype=complex), -np.ones_like(el, dtype=complex)
     eps_c = ground.complex_permittivity(freq_hz)
-    return fresnel_vertical(el, eps_c), fresnel_horizontal(el, eps_c)
+    s = np.sin(el)
+    root = np.sqrt(eps_c - np.cos(el) ** 2 + 0j)  # shared by both coefficients (same forms as the functions above)
+    es = eps_c * s
+    return (es - root) / (es + root), (s - root) / (s + root)

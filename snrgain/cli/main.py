@@ -9,6 +9,7 @@ from snrgain.cli.check import check
 from snrgain.cli.new import new
 from snrgain.cli.noise import noise
 from snrgain.cli.rank import rank
+from snrgain.cli.wire import wire
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -26,6 +27,7 @@ cli.add_command(rank)
 cli.add_command(check)
 cli.add_command(new)
 cli.add_command(noise)
+cli.add_command(wire)
 
 if __name__ == "__main__":  # pragma: no cover
     cli()

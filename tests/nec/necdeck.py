@@ -1,0 +1,85 @@
+"""NEC-2 decks for terminated long wires, and reading nec2c's output.
+
+Used by make_reference.py (which writes the decks and reference results kept
+beside them) and by the tests that re-run the engine where it is installed.
+The geometry: a feed down-lead from the ground to the wire's height at x = 0,
+the wire along +x to x = L, a far down-lead back to the ground, both leads
+connected to the ground (GE 1); the termination is a series resistor in the
+bottom segment of the far lead; the feed (a voltage source) in the bottom
+segment of the feed lead.  NEC's azimuth phi = 0 is the wire's favoured
+direction (toward the far end).
+"""
+
+from __future__ import annotations
+
+import re
+import subprocess
+from pathlib import Path
+
+import numpy as np
+
+C_MHZ_M = 299.792458
+
+
+def beverage_deck(*, freq_mhz, length_m, height_m, radius_m, permittivity, conductivity_s_per_m, termination_ohm,
+                  ground="sommerfeld", segments_per_wavelength=40) -> str:
+    """A NEC-2 deck for a terminated wire with down-leads; ground 'sommerfeld' (GN 2) or 'perfect' (GN 1)."""
+    lam = C_MHZ_M / freq_mhz
+    ns = int(np.ceil(length_m / (lam / segments_per_wavelength)))
+    nl = max(1, int(round(height_m / (length_m / ns))))
+    gn = f"GN 2 0 0 0 {permittivity:g} {conductivity_s_per_m:g}" if ground == "sommerfeld" else "GN 1"
+    lines = [
+        "CM terminated long wire with down-leads (snrgain validation case)",
+        "CE",
+        f"GW 1 {nl} 0 0 0 0 0 {height_m:g} {radius_m:g}",
+        f"GW 2 {ns} 0 0 {height_m:g} {length_m:g} 0 {height_m:g} {radius_m:g}",
+        f"GW 3 {nl} {length_m:g} 0 {height_m:g} {length_m:g} 0 0 {radius_m:g}",
+        "GE 1",
+        gn,
+        f"LD 0 3 {nl} {nl} {termination_ohm:.3f} 0 0",
+        f"FR 0 1 0 0 {freq_mhz:g} 0",
+        "EX 0 1 1 0 1 0",
+        "RP 0 46 180 1000 0 0 2 2",
+        "EN",
+    ]
+    return "\n".join(lines) + "\n"
+
+
+def run_nec2c(deck_text: str, workdir: Path, name: str) -> str:
+    """Run nec2c on a deck in ``workdir``; returns the output text."""
+    deck = workdir / f"{name}.nec"
+    out = workdir / f"{name}.out"
+    deck.write_text(deck_text)
+    subprocess.run(["nec2c", "-i", str(deck), "-o", str(out)], check=True, capture_output=True)
+    return out.read_text()
+
+
+def parse_output(text: str) -> dict:
+    """Total power gain pattern [dBi] on the (theta, phi) grid and the feed impedance [ohm]."""
+    i = text.index("RADIATION PATTERNS")
+    rows = []
+    for line in text[i:].splitlines():
+        parts = line.split()
+        if len(parts) >= 8:
+            try:
+                theta, phi, _, _, total = map(float, parts[:5])
+            except ValueError:
+                continue
+            rows.append((theta, phi, total))
+    a = np.array(rows)
+    m = re.search(r"ANTENNA INPUT PARAMETERS.*?\n.*?\n.*?\n\s*\d+\s+\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(\S+)", text, re.S)
+    return {"theta_deg": a[:, 0], "phi_deg": a[:, 1], "gain_dbi": a[:, 2],
+            "feed_impedance_ohm": complex(float(m.group(1)), float(m.group(2)))}
+
+
+def metrics(theta_deg, phi_deg, gain_dbi, *, elevation_deg=20.0) -> dict:
+    """Forward gain, front-to-back and RDF at an elevation from a pattern on a regular (theta, phi) grid."""
+    g = np.maximum(np.asarray(gain_dbi), -300.0)
+    lin = 10 ** (g / 10)
+    w = np.sin(np.radians(theta_deg))
+    w = np.where(np.isclose(theta_deg, 90.0), 0.5 * w, w)
+    mean = float(np.sum(lin * w) / np.sum(w))
+    th = 90.0 - elevation_deg
+    fwd = float(g[np.isclose(theta_deg, th) & np.isclose(phi_deg, 0.0)][0])
+    back = float(g[np.isclose(theta_deg, th) & np.isclose(phi_deg, 180.0)][0])
+    return {"forward_gain_dbi": fwd, "front_to_back_db": fwd - back, "rdf_db": fwd - 10 * np.log10(mean)}
