@@ -23,6 +23,7 @@ import numpy as np
 from noisemodels import p372
 from noisemodels.sky import total_level
 from noisemodels.sphere import upper_hemisphere
+from snrgain import chain as chainmod
 from snrgain import noise as noisemod
 from snrgain import receiver as rx
 from snrgain import scenario as scenariomod
@@ -43,11 +44,16 @@ class AntennaResult:
     rdf_db : receiving directivity factor per target [dB]
     front_to_back_db : per target, at the target's mean elevation [dB]
     snr_gain_db : SNR gain over the reference [dB], shape (targets, months, hours)
-    noise_dbm : external noise delivered into a matched receiver in the band's
-        bandwidth [dBm], shape (months, hours)
+    noise_dbm : external noise delivered through the chain to the receiver input in the
+        band's bandwidth [dBm], shape (months, hours)
     noise_by_component_dbm : the same per noise component [dBm]
-    margin_db : noise_dbm minus the receiver's noise floor [dB]
-    receiver_snr_loss_db : SNR lost to receiver noise, 10 log10((T_A + T_rx) / T_A) [dB]
+    margin_db : noise_dbm minus the chain's noise floor at the receiver input [dB]
+    receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
+    preamp_gain_needed_db : preamplifier gain that brings the margin to the target (the chain's own
+        preamplifier, or a suggested one of 3 dB noise figure before the receiver); 0 if already met,
+        NaN if no gain can [dB]
+    preamp_position : where that preamplifier goes: "receiver" (before the receiver), "antenna" (after the
+        transformer, where a lossy feed line follows), "as placed" (the chain's own), None if no gain helps
     summary_snr_gain_db : mean of snr_gain_db (weighted over targets) [dB]
     worst_snr_gain_db : minimum of snr_gain_db [dB]
     receiver_limited : True if margin_db falls below the margin target at any hour
@@ -65,6 +71,8 @@ class AntennaResult:
     noise_by_component_dbm: dict[str, np.ndarray]
     margin_db: np.ndarray
     receiver_snr_loss_db: np.ndarray
+    preamp_gain_needed_db: np.ndarray
+    preamp_position: str | None
     summary_snr_gain_db: float
     worst_snr_gain_db: float
     receiver_limited: bool
@@ -150,6 +158,8 @@ def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
         "noise_by_component_dbm": a.noise_by_component_dbm,
         "margin_db": {"axes": ["month", "utc_hour"], "values": a.margin_db},
         "receiver_snr_loss_db": {"axes": ["month", "utc_hour"], "values": a.receiver_snr_loss_db},
+        "preamp_gain_needed_db": {"axes": ["month", "utc_hour"], "values": a.preamp_gain_needed_db},
+        "preamp_position": a.preamp_position,
         "receiver_limited": a.receiver_limited,
     }
 
@@ -193,11 +203,14 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
         nf_db = float(rx.noise_figure_from_floor_db(m.receiver.noise_floor, bandwidth_hz=b))
     else:
         nf_db = m.receiver.noise_figure if m.receiver.noise_figure is not None else scenariomod.DEFAULT_NOISE_FIGURE_DB
-    t_rx = float(rx.receiver_temperature_k(nf_db))
-    floor_dbm = float(rx.noise_floor_dbm(nf_db, bandwidth_hz=b))
+    chain = chainmod.from_scenario(m, freq_hz=f, receiver_noise_figure_db=nf_db)
+    t_rx = chain.temperature_k  # the whole chain, referred to the antenna terminals
+    chain_gain_db = 10.0 * np.log10(chain.gain)
+    # The chain's floor at the receiver input: k T0 b F G (what the receiver shows with a matched load at T0).
+    floor_dbm = float(rx.noise_floor_dbm(10.0 * np.log10(chain.noise_factor), bandwidth_hz=b)) + chain_gain_db
 
     # Step 3: noise per month and hour.
-    static = noisemod.static_components(sc, grid, caches[0])
+    static = noisemod.static_components(sc, grid, caches[0], chain_gain_db=chain_gain_db)
     nm, nh = len(m.time.months), len(m.time.utc_hours)
     t_ant = np.zeros((len(antennas), nm, nh))
     comp_t = {}
@@ -226,9 +239,13 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     signal = toward[:, :, None, None]  # (ant, tgt, 1, 1)
     snr_gain = snr.snr_gain_db(signal, noise_t[:, None], signal[:1], noise_t[:1, None])  # (ant, tgt, m, h)
     with np.errstate(divide="ignore"):
-        noise_dbm = rx.power_dbm(t_ant, bandwidth_hz=b)
+        noise_dbm = rx.power_dbm(t_ant, bandwidth_hz=b) + chain_gain_db  # delivered to the receiver input
         loss_db = 10.0 * np.log10(noise_t / t_ant)
     margin = noise_dbm - floor_dbm
+    advice = [[[chainmod.preamp_advice(chain, t, m.receiver.margin_target) for t in row] for row in ant_t]
+              for ant_t in t_ant]
+    preamp_needed = np.array([[[a[0] for a in row] for row in ant] for ant in advice])
+    preamp_where = [sorted({a[1] for row in ant for a in row if a[1]}) for ant in advice]
     weights = sc.target_weights
 
     results = []
@@ -249,9 +266,11 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
             front_to_back_db=fb,
             snr_gain_db=g,
             noise_dbm=noise_dbm[k],
-            noise_by_component_dbm={n: rx.power_dbm(v[k], bandwidth_hz=b) for n, v in comp_t.items()},
+            noise_by_component_dbm={n: rx.power_dbm(v[k], bandwidth_hz=b) + chain_gain_db for n, v in comp_t.items()},
             margin_db=margin[k],
             receiver_snr_loss_db=loss_db[k],
+            preamp_gain_needed_db=preamp_needed[k],
+            preamp_position=preamp_where[k][-1] if preamp_where[k] else None,
             summary_snr_gain_db=float(np.sum(weights[:, None, None] * g) / (nm * nh)),
             worst_snr_gain_db=float(np.min(g)),
             receiver_limited=bool(np.any(margin[k] < m.receiver.margin_target)),
@@ -265,7 +284,8 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
             warnings.append(
                 f"{r.name}: external noise is only {float(np.min(r.margin_db)):.1f} dB above the receiver floor "
                 f"at worst (target {m.receiver.margin_target:g} dB); receiver noise costs up to "
-                f"{float(np.max(r.receiver_snr_loss_db)):.1f} dB of SNR. A preamplifier or a quieter receiver would help."
+                f"{float(np.max(r.receiver_snr_loss_db)):.1f} dB of SNR. "
+                + _preamp_advice(r.preamp_gain_needed_db, r.preamp_position)
             )
     if f < p372.MAN_MADE_RANGE_HZ[0] and m.noise.man_made.environment != "none":
         warnings.append(f"P.372 gives man-made noise from 0.3 MHz; at {f / 1e6:g} MHz its line is extrapolated")
@@ -284,10 +304,26 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
         noise=NoiseResult(comp_levels, total[0], total[1], total[2], daytime, _power_sum(comp_levels)),
         reference=reference,
         candidates=candidates,
-        receiver={"noise_figure_db": nf_db, "noise_floor_dbm": floor_dbm, "margin_target_db": m.receiver.margin_target},
+        receiver={"noise_figure_db": nf_db, "noise_floor_dbm": floor_dbm, "margin_target_db": m.receiver.margin_target,
+                  "chain_noise_figure_db": float(10 * np.log10(chain.noise_factor)), "chain_gain_db": chain_gain_db,
+                  "chain_stages": [{"name": st.name, "gain_db": float(10 * np.log10(st.gain)),
+                                    "noise_figure_db": float(10 * np.log10(st.noise_factor))} for st in chain.stages]},
         nside=grid.nside,
         warnings=warnings,
     )
+
+
+def _preamp_advice(needed_db, position) -> str:
+    if np.any(np.isnan(needed_db)):
+        return ("No preamplifier gain reaches the target at every hour; a quieter preamplifier, a shorter or "
+                "lower-loss feed line, or a quieter receiver would.")
+    worst = float(np.max(needed_db))
+    if position == "as placed":
+        which = "the chain's preamplifier"
+    else:
+        where = "before the receiver" if position == "receiver" else "at the antenna, after the transformer"
+        which = f"a preamplifier of {chainmod.SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
+    return f"About {worst:.0f} dB of gain from {which} would reach the target."
 
 
 def _power_sum(comp_levels) -> np.ndarray:

@@ -29,8 +29,13 @@ def _sector_params(sector):
     return "sector", {"start_rad": sector.start, "stop_rad": sector.stop, "contrast_db": sector.contrast}
 
 
-def static_components(scenario, grid: Directions, reference_cache: GainCache) -> list[sky.SkyComponent]:
-    """Components that do not change with the hour: man-made and local sources."""
+def static_components(scenario, grid: Directions, reference_cache: GainCache, *,
+                      chain_gain_db: float = 0.0) -> list[sky.SkyComponent]:
+    """Components that do not change with the hour: man-made and local sources.
+
+    A local source's ``level`` is what the receiver reads on the reference antenna through the chain
+    (gain ``chain_gain_db``), as an S-meter shows it.
+    """
     noise = scenario.model.noise
     f = scenario.freq_hz
     out = []
@@ -58,7 +63,7 @@ def static_components(scenario, grid: Directions, reference_cache: GainCache) ->
                     f"{np.degrees(src.bearing):g} deg, elevation {np.degrees(src.elevation):g} deg, so a level "
                     "measured on it cannot be placed; give the level as fa instead"
                 )
-            have = float(power_dbm(t_ref, bandwidth_hz=scenario.bandwidth_hz))
+            have = float(power_dbm(t_ref, bandwidth_hz=scenario.bandwidth_hz)) + chain_gain_db
             out.append(unit.scaled(10.0 ** ((src.level - have) / 10.0)))
     return out
 

@@ -53,6 +53,13 @@ def _f(x, fmt="{:+.1f}"):
     return fmt.format(x)
 
 
+def _preamp_cell(a) -> str:
+    if not a.receiver_limited:
+        return "-"
+    g = a.preamp_gain_needed_db
+    return "none" if np.any(np.isnan(g)) else f"{float(np.max(g)):.0f}"
+
+
 def ranking_table(results: Results):
     """A rich renderable: header lines, the ranking, and SNR gain per target."""
     from rich.console import Group
@@ -77,7 +84,10 @@ def ranking_table(results: Results):
         else:
             noise_bits.append(f"{name}: Fa {finite.min():.1f} to {finite.max():.1f} dB{some_screened}")
     head.append("Noise on P.372's reference monopole: " + "; ".join(noise_bits) + "\n")
-    head.append(f"Receiver: NF {r.receiver['noise_figure_db']:.1f} dB, floor {r.receiver['noise_floor_dbm']:.1f} dBm\n")
+    stages = ", ".join(f"{st['name']} {st['gain_db']:+.1f} dB" for st in r.receiver["chain_stages"][:-1]
+                       if abs(st["gain_db"]) > 1e-9 or st["noise_figure_db"] > 1e-9)
+    head.append(f"Receiver: NF {r.receiver['noise_figure_db']:.1f} dB; chain NF {r.receiver['chain_noise_figure_db']:.1f} dB"
+                f"{' (' + stages + ')' if stages else ''}; floor at the receiver {r.receiver['noise_floor_dbm']:.1f} dBm\n")
 
     t = Table(title=f"SNR gain over {r.reference.name}, mean over targets and hours", title_justify="left")
     t.add_column("#", justify="right")
@@ -86,6 +96,7 @@ def ranking_table(results: Results):
         t.add_column(label, justify="right", no_wrap=True)
     t.add_column("S", no_wrap=True)
     t.add_column("margin\ndB", justify="right", no_wrap=True)
+    t.add_column("preamp\ndB", justify="right", no_wrap=True)
     w = np.array([tg["weight"] for tg in r.targets])
 
     def row(rank, a, style=None):
@@ -96,6 +107,7 @@ def ranking_table(results: Results):
             _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))), _f(10 * np.log10(np.dot(w, 10 ** (a.gain_dbi / 10)))),
             _f(noise, "{:.1f}"), s_units(noise),
             Text(_f(margin, "{:.1f}") + (" !" if a.receiver_limited else ""), style="bold red" if a.receiver_limited else None),
+            _preamp_cell(a),
             style=style,
         )
 
@@ -110,8 +122,9 @@ def ranking_table(results: Results):
         pt.add_column(tg["name"] + extra, justify="right")
     for a in r.candidates:
         pt.add_row(a.name, *[f"{_f(a.snr_gain_db[i].mean())} ({_f(a.snr_gain_db[i].min())})" for i in range(len(r.targets))])
-    foot = Text("margin: external noise out minus the receiver floor (worst hour); '!' marks a receiver-noise-limited antenna.",
-                style="dim")
+    foot = Text("noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst hour); "
+                "'!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the target "
+                "('none' if no gain can).", style="dim")
     return Group(head, t, pt, foot)
 
 

@@ -221,6 +221,53 @@ class Receiver(StrictModel):
         return self
 
 
+class Feedline(StrictModel):
+    cable: str | None = None
+    length: quantity("length", ge=0.0, le=10e3) | None = None
+    loss: Decibels | None = None
+
+    @model_validator(mode="after")
+    def _one(self):
+        if self.loss is not None:
+            if self.cable is not None or self.length is not None:
+                raise ValueError("give the feed line's total loss, or its cable and length, not both")
+            if not 0 <= self.loss <= 40:
+                raise ValueError(f"loss must lie between 0 and 40 dB; got {self.loss:g} dB")
+        else:
+            if self.cable is None or self.length is None:
+                raise ValueError("a feed line needs cable and length (or its total loss)")
+            from snrgain.chain import cable_by_name
+
+            cable_by_name(self.cable)
+        return self
+
+
+class Preamp(StrictModel):
+    gain: Decibels
+    noise_figure: Decibels
+    position: Literal["antenna", "receiver"] = "receiver"
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        if not 0 <= self.gain <= 50:
+            raise ValueError(f"gain must lie between 0 and 50 dB; got {self.gain:g} dB")
+        if not 0 <= self.noise_figure <= 20:
+            raise ValueError(f"noise_figure must lie between 0 and 20 dB; got {self.noise_figure:g} dB")
+        return self
+
+
+class ChainSection(StrictModel):
+    transformer_loss: Decibels = 0.0
+    feedline: Feedline | None = None
+    preamp: Preamp | None = None
+
+    @model_validator(mode="after")
+    def _loss(self):
+        if not 0 <= self.transformer_loss <= 10:
+            raise ValueError(f"transformer_loss must lie between 0 and 10 dB; got {self.transformer_loss:g} dB")
+        return self
+
+
 class Compute(StrictModel):
     nside: Literal[8, 16, 32, 64, 128] = 32
 
@@ -234,6 +281,7 @@ class ScenarioModel(StrictModel):
     reference: dict[str, Any] | None = None
     candidate: list[dict[str, Any]] = Field(min_length=1)
     receiver: Receiver = Receiver()
+    chain: ChainSection = ChainSection()
     compute: Compute = Compute()
 
 
