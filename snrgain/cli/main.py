@@ -5,7 +5,9 @@ from __future__ import annotations
 import click
 
 from snrgain import __version__
+from snrgain.cli.calibrate import calibrate
 from snrgain.cli.check import check
+from snrgain.cli.locate import locate
 from snrgain.cli.new import new
 from snrgain.cli.noise import noise
 from snrgain.cli.rank import rank
@@ -28,6 +30,8 @@ cli.add_command(check)
 cli.add_command(new)
 cli.add_command(noise)
 cli.add_command(wire)
+cli.add_command(calibrate)
+cli.add_command(locate)
 
 if __name__ == "__main__":  # pragma: no cover
     cli()

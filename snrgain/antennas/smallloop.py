@@ -1,0 +1,106 @@
+"""The small unterminated loop in a vertical plane: a figure-eight with deep side nulls.
+
+Model: a loop of area A (much smaller than a wavelength) responds to the
+magnetic field along its normal n (horizontal, at right angles to the loop's
+plane, whose compass direction is ``bearing``): V = j omega mu0 A H_n.  At
+the loop's centre height h the field is the incident wave plus its ground
+reflection; for unit incident E,
+
+    vertical polarization:   eta0 H_n = -cos(phi - b) [exp(+j k h s) + R_v exp(-j k h s)]
+    horizontal polarization: eta0 H_n =  s sin(phi - b) [-exp(+j k h s) + R_h exp(-j k h s)]
+
+(s = sin elevation; R_v, R_h Fresnel coefficients).  With the loop's input
+resistance R_r + R_loss, R_r = 320 pi^4 (A / lambda^2)^2 (the small loop's
+radiation resistance, Kraus, "Antennas", 2nd ed., Section 6-5) and
+R_loss = (perimeter / (2 pi a)) R_s (skin-effect wire loss), a matched
+receiver takes A_e = (omega mu0 A)^2 |H_n|^2 / (4 eta0 (R_r + R_loss)) per
+unit incident power density; gain = 4 pi A_e / lambda^2.  In free space
+(no ground, no loss) this is the textbook directivity 1.5.  The loop is
+taken as balanced (no electric, "antenna effect" pick-up), and the radiation
+resistance is the free-space one.
+
+Nulls lie broadside to the loop's plane (phi = b +- 90 deg) for vertically
+polarized waves; a reading of a source with such a loop cannot tell its
+bearing from the opposite one (180 deg ambiguity).
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+import numpy as np
+from pydantic import Field, model_validator
+
+from snrgain import lines
+from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.fields import Bearing, GroundField, make_ground, quantity
+from snrgain.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
+
+
+class SmallLoopParams(AntennaParams):
+    family: Literal["small-loop"]
+    width: quantity("length", gt=0.0, le=20.0)
+    loop_height: quantity("length", gt=0.0, le=20.0)
+    height: quantity("length", gt=0.0, le=50.0)
+    bearing: Bearing = 0.0
+    turns: int = Field(default=1, ge=1, le=50)
+    gauge: int | None = Field(default=None, ge=-3, le=40)
+    ground: GroundField | None = None
+
+    @model_validator(mode="after")
+    def _fits(self):
+        if self.height < self.loop_height / 2:
+            raise ValueError(f"height (of the loop's centre, {self.height:g} m) must be at least half the loop's "
+                             f"height ({self.loop_height / 2:g} m)")
+        return self
+
+
+@register("small-loop", SmallLoopParams, "small unterminated loop in a vertical plane (figure-eight, for nulling)")
+class SmallLoop(Antenna):
+    def __init__(self, params: SmallLoopParams):
+        super().__init__(params)
+        self.ground = make_ground(params.ground)
+        self.area_m2 = params.width * params.loop_height
+
+    def check_frequency(self, freq_hz):
+        lam = C_M_PER_S / freq_hz
+        perimeter = 2 * (self.params.width + self.params.loop_height) * self.params.turns
+        if perimeter > 0.1 * lam:
+            raise ValueError(f"width, loop_height: the loop's wire ({perimeter:g} m) exceeds a tenth of a wavelength "
+                             f"at {freq_hz / 1e6:g} MHz; the small-loop model does not hold")
+
+    def input_resistance_ohm(self, freq_hz: float) -> tuple[float, float]:
+        """(radiation resistance, loss resistance) [ohm]."""
+        p = self.params
+        lam = C_M_PER_S / freq_hz
+        n = p.turns
+        r_rad = 320 * np.pi**4 * (n * self.area_m2 / lam**2) ** 2
+        a = lines.awg_diameter_m(14 if p.gauge is None else p.gauge) / 2
+        r_loss = 2 * (p.width + p.loop_height) * n * np.real(lines.wire_internal_impedance(freq_hz, a))
+        return float(r_rad), float(r_loss)
+
+    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        self.check_frequency(freq_hz)
+        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+        el_c = np.clip(el, 0.0, np.pi / 2)
+        k = 2 * np.pi * freq_hz / C_M_PER_S
+        s = np.sin(el_c)
+        r_v, r_h = reflection_coefficients(self.ground, el_c, freq_hz)
+        up = np.exp(1j * k * self.params.height * s)
+        down = np.conj(up)
+        dphi = az - self.params.bearing
+        h_v = -np.cos(dphi) * (up + r_v * down)
+        h_h = s * np.sin(dphi) * (-up + r_h * down)
+        r_rad, r_loss = self.input_resistance_ohm(freq_hz)
+        omega = 2 * np.pi * freq_hz
+        scale = (omega * MU0_H_PER_M * self.area_m2 * self.params.turns) ** 2 / (4 * ETA0_OHM * (r_rad + r_loss))
+        lam = C_M_PER_S / freq_hz
+        out = []
+        for hn in (h_v, h_h):
+            a_e = scale * np.abs(hn) ** 2  # h_n = eta0 H_n for unit incident E
+            out.append(np.where(above_horizon(el), 4 * np.pi * a_e / lam**2, 0.0))
+        return out[0], out[1]
+
+    def describe(self):
+        return {**super().describe(), "area_m2": self.area_m2, "height_m": self.params.height,
+                "bearing_deg": float(np.degrees(self.params.bearing)), "turns": self.params.turns}

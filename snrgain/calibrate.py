@@ -1,0 +1,183 @@
+"""Calibrate the wire model from a builder's antenna-analyser readings.
+
+- Open- and short-circuit impedances of a line of length L give, by the
+  textbook identities Z0 = sqrt(Zoc Zsc) and tanh(gamma L) = sqrt(Zsc / Zoc),
+  its characteristic impedance and propagation constant.  gamma L is found
+  only up to j n pi; the branch is resolved with the wire's length: the phase
+  constant must give a velocity factor in (0, 1], and, over several
+  frequencies, beta must grow in proportion to frequency (unwrapped from the
+  lowest reading, where the choice closest to an expected velocity factor is
+  taken; for a wire shorter than a quarter wave there is only one choice).
+- The first quarter-wave resonance f1 of an open-ended wire of length L
+  gives velocity factor = 4 L f1 / c (common practice).
+- The ground's conductivity and permittivity that make the line model
+  (snrgain.lines) reproduce the measured velocity factors and attenuations
+  are fitted by weighted least squares (scipy.optimize.least_squares), with
+  their uncertainty from the Jacobian at the solution, J^T W J inverted.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.optimize import least_squares
+
+from snrgain import lines
+from snrgain.ground import C_M_PER_S, Ground
+
+DEFAULT_VF_UNCERTAINTY = 0.02
+"""Standard uncertainty of a measured velocity factor [-] (assumed)."""
+DEFAULT_ATTENUATION_UNCERTAINTY = 0.2
+"""Relative standard uncertainty of a measured attenuation [-] (assumed)."""
+
+
+class ReadingError(ValueError):
+    """Readings that cannot be inverted or fitted."""
+
+
+@dataclass(frozen=True)
+class OpenShort:
+    """One pair of readings at the feed end: far end open, then shorted."""
+
+    freq_hz: float
+    z_open_ohm: complex
+    z_short_ohm: complex
+
+
+def check_readings(readings: list[OpenShort], length_m: float) -> None:
+    if not length_m > 0:
+        raise ReadingError(f"length must be > 0 m, got {length_m!r}")
+    for i, r in enumerate(readings):
+        if not r.freq_hz > 0:
+            raise ReadingError(f"reading {i}: frequency must be > 0 Hz, got {r.freq_hz!r}")
+        for name, z in (("open", r.z_open_ohm), ("short", r.z_short_ohm)):
+            if not np.isfinite(z) or z.real < 0:
+                raise ReadingError(f"reading {i}: {name}-end impedance {z:.4g} ohm has a negative or non-finite "
+                                   "resistance, which a passive wire cannot show; check the analyser's connection")
+            if abs(z) == 0:
+                raise ReadingError(f"reading {i}: {name}-end impedance is zero; the inversion needs both readings")
+
+
+def line_from_open_short(readings: list[OpenShort], *, length_m: float,
+                         expected_velocity_factor: float = 0.8) -> list[lines.LineConstants]:
+    """Invert open/short readings into line constants, one per reading (sorted by frequency)."""
+    check_readings(readings, length_m)
+    if not 0 < expected_velocity_factor <= 1:
+        raise ReadingError(f"expected velocity factor must lie in (0, 1], got {expected_velocity_factor!r}")
+    out = []
+    prev_beta_over_f = None
+    for r in sorted(readings, key=lambda x: x.freq_hz):
+        z0 = np.sqrt(r.z_open_ohm * r.z_short_ohm)
+        if z0.real < 0:
+            z0 = -z0
+        t = np.sqrt(r.z_short_ohm / r.z_open_ohm)
+        base = np.arctanh(t)
+        if base.real < 0:  # the other sign of the root: attenuation must be >= 0
+            base = -base
+        k = 2 * np.pi * r.freq_hz / C_M_PER_S
+        choices = []
+        for n in range(0, 400):
+            beta = (base.imag + n * np.pi) / length_m
+            if beta <= 0:
+                continue
+            vf = k / beta
+            if vf <= 1.0 + 1e-9:
+                choices.append((n, beta, vf))
+            if vf < 0.05:
+                break
+        if not choices:
+            raise ReadingError(f"readings at {r.freq_hz / 1e6:g} MHz give no velocity factor <= 1 for a "
+                               f"{length_m:g} m wire; check the length and the readings")
+        if prev_beta_over_f is None:
+            n, beta, vf = min(choices, key=lambda c: abs(c[2] - expected_velocity_factor))
+        else:
+            n, beta, vf = min(choices, key=lambda c: abs(c[1] / r.freq_hz - prev_beta_over_f))
+        prev_beta_over_f = beta / r.freq_hz
+        gamma = complex(base.real / length_m, beta)
+        out.append(lines.LineConstants(r.freq_hz, gamma * z0, gamma / z0, gamma, complex(z0)))
+    return out
+
+
+def vf_from_quarter_wave(length_m: float, freq_hz: float) -> float:
+    """Velocity factor from the first quarter-wave resonance of an open wire: 4 L f / c (common practice)."""
+    if not length_m > 0 or not freq_hz > 0:
+        raise ReadingError("length and resonance frequency must be > 0")
+    vf = 4 * length_m * freq_hz / C_M_PER_S
+    if vf > 1.0:
+        raise ReadingError(f"a {length_m:g} m wire resonating at {freq_hz / 1e6:g} MHz would have velocity factor "
+                           f"{vf:.2f} > 1; that is not its first quarter-wave resonance, or the length is wrong")
+    return vf
+
+
+@dataclass(frozen=True)
+class GroundFit:
+    """Fitted ground constants with standard uncertainties."""
+
+    conductivity_s_per_m: float
+    conductivity_factor: float
+    """Multiplicative standard uncertainty of the conductivity (x/÷)."""
+    permittivity: float
+    permittivity_sigma: float
+    residual_rms: float
+    fixed_permittivity: bool
+
+    @property
+    def ground(self) -> Ground:
+        return Ground(self.conductivity_s_per_m, self.permittivity, "fitted", "fitted to the builder's measurements")
+
+    def scenario_value(self) -> str:
+        return (f'{{ conductivity = "{self.conductivity_s_per_m * 1e3:.3g} mS/m", '
+                f'permittivity = {self.permittivity:.3g} }}')
+
+
+def fit_ground(model_line, measurements: list[dict], *, permittivity: float | None = None,
+               vf_sigma: float = DEFAULT_VF_UNCERTAINTY,
+               attenuation_rel_sigma: float = DEFAULT_ATTENUATION_UNCERTAINTY) -> GroundFit:
+    """Fit ground constants so that ``model_line(freq_hz, ground)`` reproduces measured constants.
+
+    ``measurements``: dicts with ``freq_hz``, ``velocity_factor`` and optionally
+    ``attenuation_db_per_100m``.  With ``permittivity`` given, only the
+    conductivity is fitted.  Several starts guard against local minima.
+    """
+    n_obs = sum(1 + ("attenuation_db_per_100m" in m and m["attenuation_db_per_100m"] is not None) for m in measurements)
+    n_unknown = 1 if permittivity is not None else 2
+    if n_obs < n_unknown:
+        raise ReadingError(
+            f"too few readings: {n_obs} measured value(s) for {n_unknown} unknowns; a quarter-wave resonance gives "
+            "the velocity factor only, so add open/short readings (velocity factor and attenuation) or give the "
+            "soil's permittivity")
+
+    def residuals(p):
+        sigma = 10 ** p[0]
+        eps = permittivity if permittivity is not None else p[1]
+        g = Ground(sigma, float(np.clip(eps, 1.0, 100.0)))
+        res = []
+        for m in measurements:
+            ln = model_line(m["freq_hz"], g)
+            res.append((ln.velocity_factor - m["velocity_factor"]) / vf_sigma)
+            a = m.get("attenuation_db_per_100m")
+            if a is not None:
+                res.append((ln.attenuation_db_per_100m - a) / (attenuation_rel_sigma * max(a, 1e-3)))
+        return np.array(res)
+
+    starts = [(-3.0, 5.0), (-2.3, 13.0), (-1.5, 25.0), (-3.7, 3.0)]
+    best = None
+    for s0, e0 in starts:
+        x0 = [s0] if permittivity is not None else [s0, e0]
+        lb = [-5.0] if permittivity is not None else [-5.0, 1.0]
+        ub = [1.0] if permittivity is not None else [1.0, 100.0]
+        r = least_squares(residuals, x0, bounds=(lb, ub), x_scale="jac")
+        if best is None or r.cost < best.cost:
+            best = r
+    jac = best.jac
+    try:
+        cov = np.linalg.inv(jac.T @ jac)
+    except np.linalg.LinAlgError:
+        raise ReadingError("the readings do not constrain the ground (singular fit); add readings at another "
+                           "frequency or give the permittivity") from None
+    rms = float(np.sqrt(np.mean(best.fun**2)))
+    log_sigma_sd = float(np.sqrt(cov[0, 0]))
+    eps = permittivity if permittivity is not None else float(best.x[1])
+    eps_sd = 0.0 if permittivity is not None else float(np.sqrt(cov[1, 1]))
+    return GroundFit(float(10 ** best.x[0]), float(10 ** log_sigma_sd), eps, eps_sd, rms, permittivity is not None)

@@ -1,0 +1,171 @@
+"""Where is that noise coming from?  Fit local sources to noise readings.
+
+Each reading is the noise power (dBm in the bandwidth) received on a known
+antenna in a known orientation.  The model for reading i:
+
+    P_i = k b G_chain [ B t_i + sum_s S_s G_i(d_s) / (4 pi) ],
+
+with t_i the antenna's temperature for a unit diffuse background (man-made
+noise at low angles from every bearing, noisemodels.sky), B its scale, and
+for each source s a direction d_s (bearing, elevation) and strength S_s
+[K sr].  Unknowns: B, and per source bearing, log strength and (optionally)
+elevation.  They are fitted to the readings in dB by least squares with a
+robust loss (scipy.optimize.least_squares, soft-L1, 1 dB scale) from several
+starts (bearings every 30 deg); the bearing's standard uncertainty comes
+from the Jacobian at the solution (J^T J inverted, scaled by the residual
+variance).  A fit whose bearing is not constrained (uncertainty over 45 deg,
+or a singular Jacobian) is reported as failed, not as an answer.
+
+When every antenna's pattern is symmetric front to back (small loops, verticals),
+a bearing and its opposite fit equally well: the result says so (180 deg
+ambiguity).  Levels are reported as Fa on P.372's reference monopole.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+from scipy.optimize import least_squares
+
+from noisemodels import p372, sky
+from noisemodels.sphere import upper_hemisphere
+from snrgain.receiver import power_dbm
+
+MAX_BEARING_SIGMA_DEG = 45.0
+
+
+class LocateError(ValueError):
+    """Readings that cannot constrain what is asked."""
+
+
+@dataclass(frozen=True)
+class Reading:
+    antenna: object
+    """An Antenna (snrgain.antennas) as oriented for this reading."""
+    level_dbm: float
+    label: str = ""
+
+
+@dataclass
+class FittedSource:
+    bearing_deg: float
+    bearing_sigma_deg: float
+    elevation_deg: float
+    fa_db: float
+    """Level on P.372's reference monopole [dB above kT0b]."""
+    ambiguous_180: bool
+
+
+@dataclass
+class LocateResult:
+    ok: bool
+    message: str
+    sources: list[FittedSource]
+    background_fa_db: float
+    residual_rms_db: float
+    predicted_dbm: np.ndarray
+    readings_dbm: np.ndarray
+    labels: list[str] = field(default_factory=list)
+
+
+def _symmetric_front_back(antenna, freq_hz) -> bool:
+    az = np.radians(np.arange(0, 180, 15.0))
+    el = np.radians(np.full_like(az, 10.0))
+    a = antenna.gain_linear(freq_hz, az, el)
+    b = antenna.gain_linear(freq_hz, az + np.pi, el)
+    return bool(np.allclose(a, b, rtol=1e-6, atol=0))
+
+
+def locate(readings: list[Reading], *, freq_hz: float, bandwidth_hz: float, n_sources: int = 1,
+           fit_elevation: bool = False, elevation_deg: float = 5.0, chain_gain_db: float = 0.0,
+           nside: int = 16, seed: int = 0) -> LocateResult:
+    """Fit ``n_sources`` compact sources plus a diffuse background to the readings."""
+    if n_sources < 1:
+        raise LocateError("n_sources must be >= 1")
+    n_unknown = 1 + n_sources * (3 if fit_elevation else 2)
+    if len(readings) < n_unknown + 1:
+        raise LocateError(f"too few readings: {len(readings)} for {n_unknown} unknowns (background level and "
+                          f"{'bearing, elevation and level' if fit_elevation else 'bearing and level'} per source); "
+                          f"take at least {n_unknown + 1}, e.g. a loop rotated in 30 deg steps")
+    levels = np.array([r.level_dbm for r in readings], dtype=float)
+    if not np.all(np.isfinite(levels)):
+        raise LocateError("every reading needs a finite level")
+    grid = upper_hemisphere(nside)
+    bg = sky.diffuse_component("background", kind="man-made", level=p372.NoiseLevel(0.0, 0.0, 0.0), directions=grid,
+                               elevation="low", elevation_params={"scale_rad": np.radians(10.0)})
+    t_bg = np.array([sky.weighted_temperature_k(r.antenna.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad),
+                                                bg.weight_k_sr) for r in readings])  # for Fa 0 dB background
+    ktb_g = 10 ** ((power_dbm(1.0, bandwidth_hz=bandwidth_hz) + chain_gain_db) / 10)  # mW per K
+
+    def unpack(x):
+        b = x[0]
+        srcs = []
+        for s in range(n_sources):
+            j = 1 + s * (3 if fit_elevation else 2)
+            el = x[j + 2] if fit_elevation else np.radians(elevation_deg)
+            srcs.append((x[j], el, x[j + 1]))
+        return b, srcs
+
+    def model_dbm(x):
+        b, srcs = unpack(x)
+        t = 10 ** (b / 10) * t_bg
+        for az, el, log_s in srcs:
+            g = np.array([r.antenna.gain_linear(freq_hz, np.array([az]), np.array([el]))[0] for r in readings])
+            t = t + 10 ** log_s * g / (4 * np.pi)
+        return 10 * np.log10(np.maximum(t * ktb_g, 1e-300))
+
+    def resid(x):
+        return model_dbm(x) - levels
+
+    # Initial strength: the brightest reading's power as if on a 0 dBi antenna.
+    s0 = np.log10(10 ** (levels.max() / 10) / ktb_g * 4 * np.pi)
+    b0 = float(levels.min() - 10 * np.log10(ktb_g * max(t_bg.max(), 1e-30)))
+    best = None
+    rng = np.random.default_rng(seed)
+    starts = np.radians(np.arange(0, 360, 30.0))
+    for az0 in starts:
+        x0 = [b0 - 10]
+        lo, hi = [-50.0], [250.0]
+        for s in range(n_sources):
+            x0 += [az0 + s * np.pi / max(n_sources, 1) + rng.normal(0, 0.05), s0]
+            lo += [-4 * np.pi, s0 - 20]
+            hi += [4 * np.pi, s0 + 20]
+            if fit_elevation:
+                x0.append(np.radians(elevation_deg))
+                lo.append(0.0)
+                hi.append(np.radians(85.0))
+        r = least_squares(resid, x0, bounds=(lo, hi), loss="soft_l1", f_scale=1.0)
+        if best is None or r.cost < best.cost:
+            best = r
+    x = best.x
+    res = best.fun
+    dof = max(len(levels) - len(x), 1)
+    s2 = float(np.sum(res**2) / dof)
+    rms = float(np.sqrt(np.mean(res**2)))
+    symmetric = all(_symmetric_front_back(r.antenna, freq_hz) for r in readings)
+    try:
+        cov = np.linalg.inv(best.jac.T @ best.jac) * max(s2, 1e-4)
+        ok_cov = np.all(np.isfinite(cov))
+    except np.linalg.LinAlgError:
+        cov, ok_cov = None, False
+    b, srcs = unpack(x)
+    fitted = []
+    for s, (az, el, log_s) in enumerate(srcs):
+        j = 1 + s * (3 if fit_elevation else 2)
+        sig = float(np.degrees(np.sqrt(abs(cov[j, j])))) if ok_cov else float("inf")
+        # Level on the reference monopole for the fitted strength.
+        t_ref = 10 ** log_s * float(sky.reference_monopole_gain(el)) / (4 * np.pi)
+        fitted.append(FittedSource(float(np.degrees(az) % 360), sig, float(np.degrees(el)),
+                                   float(p372.temperature_to_fa_db(t_ref)), symmetric))
+    ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
+    if ok:
+        msg = "fit converged"
+        if symmetric:
+            msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
+    else:
+        msg = ("the readings do not constrain a direction (bearing uncertainty over "
+               f"{MAX_BEARING_SIGMA_DEG:g} deg or a singular fit); take readings on a loop rotated in steps, or on "
+               "directional antennas pointing different ways")
+    background = float(b)  # the background's Fa on the reference monopole: scale of the Fa-0-dB component
+    return LocateResult(ok, msg, fitted, background, rms, model_dbm(x), levels, [r.label for r in readings])

@@ -1,0 +1,211 @@
+"""Calibration from analyser readings, noise-source location, and the small loop they use."""
+
+import json
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from noisemodels import p372, sky
+from noisemodels.sphere import upper_hemisphere
+from snrgain import calibrate as cal
+from snrgain.antennas import from_spec
+from snrgain.cli.main import cli
+from snrgain.ground import GROUND_TYPES, C_M_PER_S
+from snrgain.locate import LocateError, Reading, locate
+from snrgain.receiver import power_dbm
+from tests.conftest import SCENARIOS
+
+F = 1.83e6
+
+
+def _readings_of(line, length):
+    """Textbook: Zoc = Z0 coth(gamma L), Zsc = Z0 tanh(gamma L)."""
+    t = np.tanh(line.gamma * length)
+    return line.z0 / t, line.z0 * t
+
+
+@pytest.mark.parametrize("family, length, vf_hint", [("bog", 76.2, 0.6), ("beverage", 250.0, 0.9)])
+def test_open_short_inversion_recovers_the_line(family, length, vf_hint):
+    # Transmission-line identities Z0 = sqrt(Zoc Zsc), tanh(gamma L) = sqrt(Zsc/Zoc); the 250 m wire is
+    # longer than a quarter wave, so the branch comes from the expected velocity factor and the length.
+    spec = {"family": family, "length": f"{length} m", "ground": "average"}
+    if family == "beverage":
+        spec["height"] = "2.5 m"
+    ant = from_spec(spec)
+    ln = ant.line(F)
+    zoc, zsc = _readings_of(ln, length)
+    got = cal.line_from_open_short([cal.OpenShort(F, zoc, zsc)], length_m=length, expected_velocity_factor=vf_hint)[0]
+    assert got.velocity_factor == pytest.approx(ln.velocity_factor, rel=1e-9)
+    assert got.attenuation_db_per_100m == pytest.approx(ln.attenuation_db_per_100m, rel=1e-9)
+    assert got.z0 == pytest.approx(ln.z0, rel=1e-9)
+
+
+def test_branch_unwrapped_over_frequency():
+    ant = from_spec({"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"})
+    freqs = [1.0e6, 1.4e6, 1.83e6, 2.5e6, 3.6e6]
+    reads = []
+    for f in freqs:
+        zoc, zsc = _readings_of(ant.line(f), 300.0)
+        reads.append(cal.OpenShort(f, zoc, zsc))
+    got = cal.line_from_open_short(reads, length_m=300.0, expected_velocity_factor=0.9)
+    for f, g in zip(freqs, got):
+        assert g.velocity_factor == pytest.approx(ant.line(f).velocity_factor, rel=1e-6)
+
+
+def test_quarter_wave_resonance_rule():
+    # Common practice: VF = 4 L f / c for the first quarter-wave resonance of an open wire.
+    assert cal.vf_from_quarter_wave(50.0, 1.2e6) == pytest.approx(4 * 50 * 1.2e6 / C_M_PER_S)
+    with pytest.raises(cal.ReadingError, match="> 1"):
+        cal.vf_from_quarter_wave(100.0, 1.2e6)
+
+
+def test_fitted_ground_reproduces_the_velocity_factor():
+    ant = from_spec({"family": "bog", "length": "80 m", "ground": {"conductivity": "12 mS/m", "permittivity": 20}})
+    meas = []
+    for f in (1.83e6, 3.6e6):
+        ln = ant.line(f)
+        meas.append({"freq_hz": f, "velocity_factor": ln.velocity_factor, "attenuation_db_per_100m": ln.attenuation_db_per_100m})
+
+    def model(f, g):
+        ant.ground = g
+        ant._cache.clear()
+        return ant._computed_line(f)
+
+    fit = cal.fit_ground(model, meas)
+    assert fit.conductivity_s_per_m == pytest.approx(0.012, rel=0.05)
+    ant.ground, _ = fit.ground, ant._cache.clear()
+    assert ant._computed_line(1.83e6).velocity_factor == pytest.approx(meas[0]["velocity_factor"], abs=1e-4)
+    assert fit.conductivity_factor > 1.0
+
+
+@pytest.mark.parametrize("zoc, zsc, length, match", [
+    (complex(-50, 10), complex(100, 50), 76.0, "negative"),
+    (complex(100, -200), complex(150, 200), -5.0, "length"),
+    (complex(100, -200), 0j, 76.0, "zero"),
+])
+def test_bad_readings(zoc, zsc, length, match):
+    with pytest.raises(cal.ReadingError, match=match):
+        cal.line_from_open_short([cal.OpenShort(F, zoc, zsc)], length_m=length)
+
+
+def test_too_few_readings_for_ground_fit():
+    with pytest.raises(cal.ReadingError, match="too few readings"):
+        cal.fit_ground(lambda f, g: None, [{"freq_hz": F, "velocity_factor": 0.7}])
+
+
+def test_calibrate_command(tmp_path):
+    ant = from_spec({"family": "bog", "length": "250 ft", "gauge": 16, "ground": "average"})
+    zoc, zsc = _readings_of(ant.line(F), ant.length_m)
+    rf = tmp_path / "r.toml"
+    rf.write_text(f'[wire]\nfamily = "bog"\nlength = "250 ft"\ngauge = 16\n[[open_short]]\nfrequency = "1.83 MHz"\n'
+                  f'open = [{zoc.real}, {zoc.imag}]\nshort = "{zsc.real}{zsc.imag:+}j"\n')
+    out = tmp_path / "fitted.toml"
+    runner = CliRunner()
+    res = runner.invoke(cli, ["calibrate", str(rf), "--format", "json", "--scenario",
+                              str(SCENARIOS / "marrow-fen.toml"), "--write", str(out)])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["fitted_ground"]["conductivity_s_per_m"] == pytest.approx(0.005, rel=0.05)
+    assert 250 < data["suggested_termination_ohm"] < 450
+    assert 'ground = { conductivity = "5 mS/m"' in out.read_text()
+    res = runner.invoke(cli, ["calibrate", str(rf), "--scenario", str(SCENARIOS / "marrow-fen.toml"), "--write", str(out)])
+    assert res.exit_code == 2 and "--overwrite" in res.stderr
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[wire]\nfamily = "bog"\nlength = "250 ft"\n[[open_short]]\nfrequency = "1.83 MHz"\nopen = "abc"\nshort = [1, 2]\n')
+    res = runner.invoke(cli, ["calibrate", str(bad)])
+    assert res.exit_code == 2 and "open_short[0].open" in res.stderr
+
+
+# -- the small loop -----------------------------------------------------------------
+
+
+def test_small_loop_free_space_like_directivity_and_nulls():
+    # Kraus: a small loop's directivity is 1.5; over a perfect ground the field doubles at the horizon (x4).
+    lossless_pec = from_spec({"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "1.5 m",
+                              "ground": "perfect", "bearing": 0})
+    r_rad, r_loss = lossless_pec.input_resistance_ohm(F)
+    g0 = lossless_pec.gain_linear(F, np.array([0.0]), np.array([0.0]))[0]
+    # (0.1 %: the textbook 320 pi^4 takes eta0 = 120 pi, the code's field uses the CODATA eta0.)
+    assert g0 == pytest.approx(6.0 * r_rad / (r_rad + r_loss), rel=1e-3)
+    # Figure-eight with nulls broadside to the loop's plane (vertical polarization).
+    gv, _ = lossless_pec.partial_gains(F, np.radians([0.0, 90.0, 180.0, 270.0]), np.radians([10.0] * 4))
+    assert gv[1] < 1e-12 * gv[0] and gv[3] < 1e-12 * gv[0]
+    assert gv[0] == pytest.approx(gv[2])
+    assert r_rad == pytest.approx(320 * np.pi**4 * (1.0 / (C_M_PER_S / F) ** 2) ** 2)
+
+
+# -- noise location -------------------------------------------------------------------
+
+LOOP = {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "1.5 m", "ground": "average"}
+
+
+def _synth(antennas, *, bearing, fa_src=75.0, fa_bg=55.0, noise_db=0.5, seed=0):
+    grid = upper_hemisphere(16)
+    bg = sky.diffuse_component("bg", kind="m", level=p372.NoiseLevel(fa_bg, 0, 0), directions=grid, elevation="low",
+                               elevation_params={"scale_rad": np.radians(10)})
+    src = sky.compact_component("s", level=p372.NoiseLevel(fa_src, 0, 0), azimuth_rad=np.radians(bearing),
+                                elevation_rad=np.radians(5), spread_rad=0.0)
+    rng = np.random.default_rng(seed)
+    out = []
+    for a in antennas:
+        t = (sky.weighted_temperature_k(a.gain_linear(F, grid.azimuth_rad, grid.elevation_rad), bg.weight_k_sr)
+             + sky.weighted_temperature_k(a.gain_linear(F, src.directions.azimuth_rad, src.directions.elevation_rad),
+                                          src.weight_k_sr))
+        out.append(Reading(a, float(power_dbm(t, bandwidth_hz=500.0)) + rng.normal(0, noise_db)))
+    return out
+
+
+@pytest.mark.parametrize("bearing", [40.0, 250.0, 300.0])
+def test_loop_readings_recover_bearing_within_5_deg_modulo_180(bearing):
+    # Readings synthesised from a known source with 0.5 dB measurement noise; stated bearing error: 5 deg.
+    loops = [from_spec({**LOOP, "bearing": b}) for b in range(0, 180, 20)]
+    res = locate(_synth(loops, bearing=bearing), freq_hz=F, bandwidth_hz=500.0)
+    assert res.ok
+    s = res.sources[0]
+    diff = (s.bearing_deg - bearing) % 180
+    assert min(diff, 180 - diff) < 5.0
+    assert s.ambiguous_180
+    assert s.fa_db == pytest.approx(75.0, abs=1.5)
+
+
+def test_directional_antennas_resolve_the_ambiguity():
+    bevs = [from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "average", "bearing": b})
+            for b in range(0, 360, 45)]
+    res = locate(_synth(bevs, bearing=250.0, seed=2), freq_hz=F, bandwidth_hz=500.0)
+    assert res.ok and not res.sources[0].ambiguous_180
+    assert abs((res.sources[0].bearing_deg - 250.0 + 180) % 360 - 180) < 8.0
+
+
+def test_fit_reports_failure_when_direction_unconstrained():
+    # Omnidirectional readings only (verticals of different heights): no bearing information.
+    verts = [from_spec({"family": "vertical", "height": f"{h} m", "ground": "average"}) for h in (6, 10, 15, 20)]
+    res = locate(_synth(verts, bearing=100.0), freq_hz=F, bandwidth_hz=500.0)
+    assert not res.ok
+    assert "do not constrain" in res.message
+
+
+def test_too_few_readings_for_the_unknowns():
+    loops = [from_spec({**LOOP, "bearing": b}) for b in (0, 90)]
+    with pytest.raises(LocateError, match="too few readings"):
+        locate(_synth(loops, bearing=10.0), freq_hz=F, bandwidth_hz=500.0)
+
+
+def test_locate_command_writes_plot_and_scenario(tmp_path):
+    runner = CliRunner()
+    ex = runner.invoke(cli, ["locate", "--example"]).stdout
+    rf = tmp_path / "r.toml"
+    rf.write_text(ex)
+    png = tmp_path / "dir.png"
+    out = tmp_path / "with-source.toml"
+    res = runner.invoke(cli, ["locate", str(rf), "--plot", str(png), "--scenario", str(SCENARIOS / "marrow-fen.toml"),
+                              "--write", str(out), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["ok"] and data["sources"][0]["ambiguous_180"]
+    assert png.stat().st_size > 5000 and png.read_bytes()[:4] == b"\x89PNG"
+    text = out.read_text()
+    assert "[[noise.local]]" in text
+    import tomllib
+
+    assert tomllib.loads(text)["noise"]["local"][-1]["fa"] == pytest.approx(data["sources"][0]["fa_db"], abs=0.05)
