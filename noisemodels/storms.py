@@ -45,6 +45,8 @@ MIN_ELEVATION_RAD = np.radians(3.0)
 NIGHT_LOSS_DB_PER_HOP = 1.0
 GROUND_LOSS_DB_PER_REFLECTION = 3.0
 D_REGION_HEIGHT_M = 80e3
+SUB_DISTANCE = 8
+SUB_BEARING = 2
 
 
 def noon_absorption_db(freq_mhz, elevation_rad):
@@ -121,7 +123,17 @@ def arrival_samples(
     loss_db += GROUND_LOSS_DB_PER_REFLECTION * (n - 1)
     spreading = 1.0 / (EARTH_RADIUS_M * np.sin(d / EARTH_RADIUS_M))
     power = density * spreading * 10.0 ** (-loss_db / 10.0) * np.radians(bearing_step_deg) * distance_step_m
-    return np.radians(b).ravel(), el.ravel(), power.ravel()
+    # Each sample stands for a cell of bearing x distance: spread its power over sub-samples across the cell,
+    # so that the arrival elevations (which change fast with distance near the site) fill the sky smoothly.
+    sub_d = (np.arange(SUB_DISTANCE) + 0.5) / SUB_DISTANCE - 0.5
+    sub_b = (np.arange(SUB_BEARING) + 0.5) / SUB_BEARING - 0.5
+    d_sub = np.clip(d[..., None] + sub_d * distance_step_m, 1e3, None)
+    _, el_sub = _hops_and_elevation(d_sub, layer_height_m)
+    az_sub = np.radians(b[..., None, None] + sub_b[None, None, None, :] * bearing_step_deg)
+    el_sub = np.broadcast_to(el_sub[..., None], d.shape + (SUB_DISTANCE, SUB_BEARING))
+    az_sub = np.broadcast_to(az_sub, d.shape + (SUB_DISTANCE, SUB_BEARING))
+    p_sub = np.broadcast_to((power / (SUB_DISTANCE * SUB_BEARING))[..., None, None], el_sub.shape)
+    return az_sub.ravel(), el_sub.ravel(), p_sub.ravel()
 
 
 def deposit(directions: Directions, azimuth_rad, elevation_rad, power):

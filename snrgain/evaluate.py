@@ -97,6 +97,25 @@ class NoiseResult:
 
 
 @dataclass
+class FigureData:
+    """What the figures need beyond the numbers (not part of the JSON output).
+
+    azimuth_deg, elevation_deg : the cut grids [deg]
+    azimuth_cuts : antenna name -> (targets, azimuths) total gain [dBi] at each target's mean elevation
+    elevation_cuts : antenna name -> (targets, elevations) total gain [dBi] toward each target's bearing
+    sky : (month index, hour index) -> the noise sky components (noisemodels.sky.SkyComponent)
+    lot_m : the lot outline [m east, m north], or None
+    """
+
+    azimuth_deg: np.ndarray
+    elevation_deg: np.ndarray
+    azimuth_cuts: dict[str, np.ndarray]
+    elevation_cuts: dict[str, np.ndarray]
+    sky: dict[tuple[int, int], list]
+    lot_m: list[tuple[float, float]] | None
+
+
+@dataclass
 class Results:
     """Everything ``evaluate`` computed.  ``candidates`` are ranked, best first."""
 
@@ -113,6 +132,8 @@ class Results:
     receiver: dict[str, float]
     nside: int
     warnings: list[str] = field(default_factory=list)
+    figures: FigureData | None = field(default=None, repr=False)
+    local_sources: list[dict[str, Any]] = field(default_factory=list)
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict (numbers as floats and lists; units in the keys)."""
@@ -138,6 +159,7 @@ class Results:
             "nside": self.nside,
             "reference": _antenna_dict(self.reference),
             "ranking": [_antenna_dict(c) | {"rank": i + 1} for i, c in enumerate(self.candidates)],
+            "local_sources": self.local_sources,
             "warnings": self.warnings,
         })
 
@@ -217,9 +239,11 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     comp_levels: dict[str, dict[str, Any]] = {}
     total = np.zeros((3, nm, nh))
     daytime = np.zeros((nm, nh), dtype=bool)
+    skies = {}
     for i, month in enumerate(m.time.months):
         for j, hour in enumerate(m.time.utc_hours):
             comps = static + noisemod.hourly_components(sc, grid, month=month, utc_hour=hour)
+            skies[(i, j)] = comps
             daytime[i, j] = noisemod.is_daytime(sc, month=month, utc_hour=hour)
             for k, cache in enumerate(caches):
                 per = snr.antenna_temperature_k(cache, comps)
@@ -290,6 +314,17 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     if f < p372.MAN_MADE_RANGE_HZ[0] and m.noise.man_made.environment != "none":
         warnings.append(f"P.372 gives man-made noise from 0.3 MHz; at {f / 1e6:g} MHz its line is extrapolated")
 
+    az_cut = np.arange(0.0, 360.5, 1.0)
+    el_cut = np.arange(0.0, 90.25, 0.5)
+    with np.errstate(divide="ignore"):
+        az_cuts = {a.name: np.array([a.gain_dbi(f, az_cut, np.degrees(t.mean_elevation_rad)) for t in sc.targets])
+                   for a in antennas}
+        el_cuts = {a.name: np.array([a.gain_dbi(f, np.degrees(t.bearing_rad), el_cut) for t in sc.targets])
+                   for a in antennas}
+    figures = FigureData(az_cut, el_cut, az_cuts, el_cuts, skies, m.site.lot)
+    local = [{"name": s.name, "bearing_deg": float(np.degrees(s.bearing)), "elevation_deg": float(np.degrees(s.elevation)),
+              "spread_deg": float(np.degrees(s.spread))} for s in m.noise.local]
+
     return Results(
         source=sc.source,
         site={"name": m.site.name, "latitude_deg": m.site.latitude, "longitude_deg": m.site.longitude,
@@ -310,6 +345,8 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
                                     "noise_figure_db": float(10 * np.log10(st.noise_factor))} for st in chain.stages]},
         nside=grid.nside,
         warnings=warnings,
+        figures=figures,
+        local_sources=local,
     )
 
 

@@ -133,3 +133,21 @@ def ground_name_check(value):
 
 GroundField = Annotated[GroundInput, BeforeValidator(ground_name_check)]
 
+
+
+def _point(value):
+    """A point on the site plan: [east, north], each a length ("12 m", "40 ft") or a bare number of metres."""
+    if not isinstance(value, (list, tuple)) or len(value) != 2:
+        raise ValueError(f"expected a point [east, north], e.g. [\"12 m\", \"-30 ft\"] or [12, -9.1] (metres); got {value!r}")
+    out = []
+    for v in value:
+        if isinstance(v, bool):
+            raise ValueError(f"expected a length, got {v!r}")
+        out.append(float(v) if isinstance(v, (int, float)) else parse_quantity(v, "length"))
+    if not all(np.isfinite(out)) or max(abs(x) for x in out) > 10_000:
+        raise ValueError(f"a site-plan point must lie within 10 km of the origin; got {value!r}")
+    return (out[0], out[1])
+
+
+PlanPoint = Annotated[tuple[float, float], BeforeValidator(_point)]
+"""A point on the site plan, metres east and north of the plan's origin."""

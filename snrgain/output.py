@@ -147,6 +147,9 @@ def write_whole(path: str | Path, text: str, *, overwrite: bool) -> None:
             fh.write(text)
         if not overwrite and p.exists():
             raise FileExistsError(f"{p} exists; pass --overwrite to replace it")
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)
         os.replace(tmp, p)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)

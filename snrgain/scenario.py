@@ -27,6 +27,7 @@ from snrgain.fields import (
     GroundField,
     Latitude,
     Longitude,
+    PlanPoint,
     PowerDbm,
     StrictModel,
     make_ground,
@@ -57,6 +58,8 @@ class Site(StrictModel):
     latitude: Latitude
     longitude: Longitude
     ground: GroundField = "average"
+    lot: list[PlanPoint] | None = Field(default=None, min_length=3)
+    """The lot's outline on the site plan, [east, north] corners (for the plan view)."""
 
 
 class Band(StrictModel):

@@ -19,7 +19,7 @@ from typing import Any, ClassVar
 import numpy as np
 from pydantic import ValidationError
 
-from snrgain.fields import StrictModel
+from snrgain.fields import PlanPoint, StrictModel
 
 
 class SpecError(ValueError):
@@ -35,6 +35,8 @@ class AntennaParams(StrictModel):
 
     family: str
     name: str | None = None
+    position: PlanPoint | None = None
+    """Where the antenna's feed point stands on the site plan [m east, m north] (for the plan view)."""
 
 
 class Antenna(ABC):
@@ -84,7 +86,10 @@ class Antenna(ABC):
 
     def describe(self) -> dict[str, Any]:
         """Parameters for output (JSON-friendly, SI units in the keys)."""
-        return {"family": self.family, "name": self.name}
+        out = {"family": self.family, "name": self.name}
+        if self.params.position is not None:
+            out["position_m"] = list(self.params.position)
+        return out
 
 
 def _radians(azimuth_deg, elevation_deg):

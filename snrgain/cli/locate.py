@@ -193,8 +193,6 @@ def _plot(res, path, *, overwrite):
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    from snrgain.output import write_whole  # noqa: F401  (same whole-or-nothing rule, via a temporary file)
-
     fig = plt.figure(figsize=(6, 6))
     ax = fig.add_subplot(projection="polar")
     ax.set_theta_zero_location("N")
@@ -213,15 +211,9 @@ def _plot(res, path, *, overwrite):
                  + f"\n(background Fa {res.background_fa_db:.0f} dB, residual {res.residual_rms_db:.1f} dB)", pad=18)
     ax.legend(loc="lower left", bbox_to_anchor=(-0.1, -0.15), fontsize=9)
     fig.tight_layout()
-    import os
-    import tempfile
+    from snrgain.plots import save
 
-    target = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=target.suffix or ".png", dir=target.parent)
-    os.close(fd)
     try:
-        fig.savefig(tmp, dpi=110)
-        os.replace(tmp, target)
+        save(fig, path, overwrite=overwrite)
     finally:
         plt.close(fig)
-        Path(tmp).unlink(missing_ok=True)

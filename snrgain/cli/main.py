@@ -11,6 +11,7 @@ from snrgain.cli.locate import locate
 from snrgain.cli.new import new
 from snrgain.cli.noise import noise
 from snrgain.cli.rank import rank
+from snrgain.cli.report import figures, report
 from snrgain.cli.wire import wire
 
 
@@ -32,6 +33,8 @@ cli.add_command(noise)
 cli.add_command(wire)
 cli.add_command(calibrate)
 cli.add_command(locate)
+cli.add_command(report)
+cli.add_command(figures)
 
 if __name__ == "__main__":  # pragma: no cover
     cli()

@@ -1,0 +1,78 @@
+"""``snrgain report`` and ``snrgain figures``: an HTML report, and the figures as files."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from snrgain.cli.options import handle_errors, nside_option, overwrite_option, p372_dir_option, scenario_argument
+
+
+@click.command("report")
+@scenario_argument
+@click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=str), required=True,
+              help="The HTML file to write (whole or not at all).")
+@overwrite_option
+@nside_option
+@p372_dir_option
+@handle_errors
+def report(scenario, output, overwrite, nside, p372_dir):
+    """Write one self-contained HTML report for SCENARIO: summary, ranking, figures, models, safety.
+
+    The file has no scripts and loads nothing from the network; it prints cleanly.
+    """
+    from snrgain import report as rep
+    from snrgain.evaluate import evaluate
+    from snrgain.output import check_writable, write_whole
+
+    check_writable(output, overwrite=overwrite)
+    results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+    for w in results.warnings:
+        click.echo(f"warning: {w}", err=True)
+    write_whole(output, rep.render(results), overwrite=overwrite)
+    click.echo(f"wrote {output}", err=True)
+
+
+@click.command("figures")
+@scenario_argument
+@click.option("--dir", "out_dir", type=click.Path(file_okay=False, path_type=str), required=True,
+              help="Folder to write the figures into (it must exist).")
+@click.option("--format", "fmt", type=click.Choice(["png", "svg"]), default="png", show_default=True)
+@click.option("--only", type=click.Choice(["azimuth", "elevation", "sky", "hours", "ranking", "plan"]), multiple=True,
+              help="Only these figures (repeatable); default all that apply.")
+@overwrite_option
+@nside_option
+@p372_dir_option
+@handle_errors
+def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
+    """Write the figures for SCENARIO as PNG or SVG files into --dir."""
+    from snrgain import plots
+    from snrgain.evaluate import evaluate
+
+    d = Path(out_dir)
+    if not d.is_dir():
+        raise FileNotFoundError(f"folder {d} does not exist")
+    names = list(only) or list(plots.FIGURES)
+    results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+    if "plan" in names and not plots.has_site_plan(results):
+        if only:
+            raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
+        names.remove("plan")
+    jobs = []
+    for name in names:
+        if name in ("azimuth", "elevation"):
+            for i in range(len(results.targets)):
+                jobs.append((d / f"{name}-target{i + 1}.{fmt}", plots.FIGURES[name], {"target_index": i}))
+        else:
+            jobs.append((d / f"{name}.{fmt}", plots.FIGURES[name], {}))
+    existing = [str(p) for p, _, _ in jobs if p.exists()]
+    if existing and not overwrite:
+        raise FileExistsError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
+    import matplotlib.pyplot as plt
+
+    for path, fn, kw in jobs:
+        fig = fn(results, **kw)
+        plots.save(fig, path, overwrite=overwrite)
+        plt.close(fig)
+        click.echo(f"wrote {path}", err=True)

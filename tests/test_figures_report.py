@@ -1,0 +1,218 @@
+"""Figures and the HTML report: non-empty images with the expected axes and traces; valid, complete HTML."""
+
+import shutil
+import subprocess
+from html.parser import HTMLParser
+
+import matplotlib.pyplot as plt
+import pytest
+from click.testing import CliRunner
+
+import snrgain
+from snrgain import plots, report
+from snrgain.cli.main import cli
+from tests.conftest import P372_DIR, SCENARIOS
+
+
+@pytest.fixture(scope="module")
+def results():
+    return snrgain.evaluate(SCENARIOS / "alder-hollow.toml")
+
+
+@pytest.fixture(scope="module")
+def summer(monkeypatch_module=None):
+    import os
+
+    old = os.environ.get("SNRGAIN_P372_DIR")
+    os.environ["SNRGAIN_P372_DIR"] = str(P372_DIR)
+    try:
+        return snrgain.evaluate(SCENARIOS / "alder-hollow-summer.toml")
+    finally:
+        if old is None:
+            del os.environ["SNRGAIN_P372_DIR"]
+        else:
+            os.environ["SNRGAIN_P372_DIR"] = old
+
+
+def _png_size(fig, tmp_path, name):
+    p = tmp_path / f"{name}.png"
+    plots.save(fig, p)
+    return p.stat().st_size
+
+
+def _labelled_lines(ax):
+    return [ln.get_label() for ln in ax.get_lines() if not ln.get_label().startswith("_")]
+
+
+def test_azimuth_pattern(results, tmp_path):
+    fig = plots.azimuth_pattern(results)
+    assert len(fig.axes) == 1 and fig.axes[0].name == "polar"
+    labels = _labelled_lines(fig.axes[0])
+    n_ant = 1 + len(results.candidates)
+    assert len(labels) == n_ant + len(results.local_sources)
+    assert any("reference" in lab for lab in labels)
+    assert "dBi" in fig.axes[0].get_title()
+    assert _png_size(fig, tmp_path, "az") > 10_000
+    plt.close(fig)
+
+
+def test_elevation_pattern(results, tmp_path):
+    fig = plots.elevation_pattern(results, target_index=1)
+    ax = fig.axes[0]
+    assert "elevation" in ax.get_xlabel() and "dBi" in ax.get_ylabel()
+    assert len(_labelled_lines(ax)) == 1 + len(results.candidates)
+    assert _png_size(fig, tmp_path, "el") > 10_000
+    plt.close(fig)
+
+
+def test_noise_sky_panels(summer, tmp_path):
+    fig = plots.noise_sky(summer, hour_index=2)
+    diffuse = [c for c in summer.figures.sky[(0, 2)] if c.directions.nside is not None]
+    # one panel per diffuse component, one for the total, and the colour bar
+    assert len(fig.axes) == len(diffuse) + 2
+    assert all("elevation" in ax.get_ylabel() for ax in fig.axes[:-1])
+    assert "dB above 1 K" in fig.axes[-1].get_ylabel()
+    assert _png_size(fig, tmp_path, "sky") > 20_000
+    plt.close(fig)
+
+
+def test_snr_over_hours_with_decile_bands(summer, tmp_path):
+    fig = plots.snr_over_hours(summer)
+    ax = fig.axes[0]
+    assert len(_labelled_lines(ax)) == len(summer.candidates) + 1
+    assert len(ax.collections) == len(summer.candidates)  # one decile band per candidate
+    assert "UTC" in ax.get_xlabel()
+    assert _png_size(fig, tmp_path, "hours") > 10_000
+    plt.close(fig)
+
+
+def test_ranking_chart(results, tmp_path):
+    fig = plots.ranking_chart(results)
+    assert len(fig.axes) == 3
+    assert [t.get_text() for t in fig.axes[0].get_yticklabels()][::-1] == [c.name for c in results.candidates]
+    assert _png_size(fig, tmp_path, "rank") > 10_000
+    plt.close(fig)
+
+
+def test_site_plan(results, tmp_path):
+    assert plots.has_site_plan(results)
+    fig = plots.site_plan(results)
+    ax = fig.axes[0]
+    assert ax.get_xlabel() == "east (m)" and ax.get_ylabel() == "north (m)"
+    placed = [a for a in [results.reference, *results.candidates] if "position_m" in a.parameters]
+    assert len(_labelled_lines(ax)) == len(placed)
+    assert _png_size(fig, tmp_path, "plan") > 10_000
+    plt.close(fig)
+
+
+def test_site_plan_needs_a_lot_or_positions():
+    r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
+    assert not plots.has_site_plan(r)
+    with pytest.raises(ValueError, match="no lot outline"):
+        plots.site_plan(r)
+
+
+def test_save_refuses_to_overwrite_and_bad_suffix(results, tmp_path):
+    fig = plots.ranking_chart(results)
+    p = tmp_path / "x.svg"
+    plots.save(fig, p)
+    assert p.read_text().lstrip().startswith("<?xml") or "<svg" in p.read_text()[:500]
+    with pytest.raises(FileExistsError):
+        plots.save(fig, p)
+    with pytest.raises(ValueError, match=".png or .svg"):
+        plots.save(fig, tmp_path / "x.jpg")
+    plt.close(fig)
+
+
+class _Checker(HTMLParser):
+    VOID = {"meta", "br", "img", "hr", "input", "link"}
+
+    def __init__(self):
+        super().__init__()
+        self.stack, self.ids, self.errors, self.svgs, self.external = [], set(), [], 0, []
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        if "id" in a:
+            self.ids.add(a["id"])
+        if tag == "svg" and not any(t == "svg" for t in self.stack):
+            self.svgs += 1
+        for key in ("src", "href"):
+            if a.get(key, "").startswith(("http:", "https:", "//")):
+                self.external.append(a[key])
+        if tag not in self.VOID:
+            self.stack.append(tag)
+
+    def handle_startendtag(self, tag, attrs):
+        a = dict(attrs)
+        for key in ("src", "href"):
+            if a.get(key, "").startswith(("http:", "https:", "//")):
+                self.external.append(a[key])
+
+    def handle_endtag(self, tag):
+        if tag in self.VOID:
+            return
+        if not self.stack or self.stack[-1] != tag:
+            self.errors.append(f"unbalanced </{tag}> (open: {self.stack[-3:]})")
+            if tag in self.stack:
+                while self.stack and self.stack.pop() != tag:
+                    pass
+            return
+        self.stack.pop()
+
+
+def test_report_is_complete_html(results):
+    text = report.render(results)
+    assert text.startswith("<!DOCTYPE html>")
+    chk = _Checker()
+    chk.feed(text)
+    assert not chk.errors, chk.errors[:5]
+    assert {"summary", "ranked", "figures", "models", "safety", "ranking"} <= chk.ids
+    assert chk.svgs == len(report.figure_list(results))
+    assert not chk.external  # opens without network access
+    assert "<script" not in text
+    for c in results.candidates:
+        assert c.name in text
+    assert "power lines" in text and "@media print" in text
+
+
+def test_report_command(tmp_path):
+    out = tmp_path / "r.html"
+    runner = CliRunner()
+    res = runner.invoke(cli, ["report", str(SCENARIOS / "marrow-fen.toml"), "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    assert "Ranked candidates" in out.read_text()
+    res = runner.invoke(cli, ["report", str(SCENARIOS / "marrow-fen.toml"), "-o", str(out)])
+    assert res.exit_code == 2 and "--overwrite" in res.stderr
+
+
+def test_figures_command(tmp_path):
+    runner = CliRunner()
+    res = runner.invoke(cli, ["figures", str(SCENARIOS / "alder-hollow.toml"), "--dir", str(tmp_path), "--format", "svg"])
+    assert res.exit_code == 0, res.output
+    names = sorted(p.name for p in tmp_path.iterdir())
+    assert "plan.svg" in names and "ranking.svg" in names and "azimuth-target2.svg" in names
+
+
+def _chromium():
+    for name in ("chromium", "chromium-browser"):
+        path = shutil.which(name)
+        if path:
+            return path
+    return None
+
+
+@pytest.mark.skipif(_chromium() is None, reason="headless Chromium (Debian package 'chromium') not installed")
+def test_report_renders_in_headless_chromium(results, tmp_path):
+    page = tmp_path / "report.html"
+    page.write_text(report.render(results))
+    args = [_chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+            "--disable-background-networking", "--disable-component-update", "--disable-sync",
+            f"--user-data-dir={tmp_path / 'profile'}"]
+    dom = subprocess.run(args + ["--dump-dom", page.as_uri()], capture_output=True, text=True, timeout=120)
+    assert dom.returncode == 0, dom.stderr[-2000:]
+    assert "id=\"ranking\"" in dom.stdout and results.candidates[0].name in dom.stdout
+    shot = tmp_path / "shot.png"
+    subprocess.run(args + [f"--screenshot={shot}", "--window-size=1200,2000", page.as_uri()],
+                   capture_output=True, text=True, timeout=120)
+    assert shot.exists() and shot.stat().st_size > 20_000
