@@ -60,6 +60,14 @@ class Antenna(ABC):
     def partial_gains(self, freq_hz: float, azimuth_rad, elevation_rad) -> tuple[np.ndarray, np.ndarray]:
         """Partial gains (vertical, horizontal polarization), linear, 0 below the horizon."""
 
+    def complex_response(self, freq_hz: float, azimuth_rad, elevation_rad) -> tuple[np.ndarray, np.ndarray]:
+        """Complex responses (vertical, horizontal) with |e|^2 = the realized partial gains.
+
+        The phase is referred to the antenna's own feed point and ``position``; arrays combine these before
+        powers are taken.  Families without phase (pattern tables) raise ValueError.
+        """
+        raise ValueError(f"the {self.family!r} family carries no phase, so it cannot be an element of an array")
+
     def gain_linear(self, freq_hz: float, azimuth_rad, elevation_rad) -> np.ndarray:
         """Total gain (sum of the two partial gains), linear."""
         gv, gh = self.partial_gains(freq_hz, azimuth_rad, elevation_rad)

@@ -23,3 +23,7 @@ class Isotropic(Antenna):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         half = np.where(above_horizon(el), 0.5, 0.0)
         return half, half.copy()
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        gv, gh = self.partial_gains(freq_hz, azimuth_rad, elevation_rad)
+        return np.sqrt(gv).astype(complex), np.sqrt(gh).astype(complex)

@@ -290,16 +290,7 @@ class LongWire(Antenna):
         s = np.sin(el_c)
         dphi = az - self.bearing_rad
         c = np.cos(el_c) * np.cos(dphi)
-        up = np.exp(1j * k * h * s)
-        down = np.conj(up)  # k h s is real
-        a_h = -np.sin(dphi) * (up + r_h * down)
-        a_v = -s * np.cos(dphi) * (up - r_v * down)
-        if self.has_leads:
-            # cos(Delta) * integral_0^h [e^{jkzs} + R_v e^{-jkzs}] dz; the two integrals are complex conjugates.
-            lead_up = _safe_expint(1j * k * s, h)
-            lead = np.cos(el_c) * (lead_up + r_v * np.conj(lead_up))
-        else:
-            lead = np.zeros_like(a_v)
+        a_v, a_h, lead = self._excitation(k, el_c, s, dphi, r_v, r_h)
         jkc = 1j * k * c
         e2 = np.exp(-2 * g * L)
         eg = np.exp(-g * L)
@@ -334,19 +325,35 @@ class LongWire(Antenna):
             out[pol] = (i_f, i_r)
         return out, el
 
-    def _port_gain(self, freq_hz, currents, el):
+    def _excitation(self, k, el_c, s, dphi, r_v, r_h):
+        """Field along the wire (per polarization) and the down-lead EMF, per unit incident field."""
+        h = self.wire_height_m()
+        up = np.exp(1j * k * h * s)
+        down = np.conj(up)  # k h s is real
+        a_h = -np.sin(dphi) * (up + r_h * down)
+        a_v = -s * np.cos(dphi) * (up - r_v * down)
+        if self.has_leads:
+            # cos(Delta) * integral_0^h [e^{jkzs} + R_v e^{-jkzs}] dz; the two integrals are complex conjugates.
+            lead_up = _safe_expint(1j * k * s, h)
+            lead = np.cos(el_c) * (lead_up + r_v * np.conj(lead_up))
+        else:
+            lead = np.zeros_like(a_v)
+        return a_v, a_h, lead
+
+    def _port_response(self, freq_hz, currents, el):
+        """Complex responses (vertical, horizontal) whose squared magnitudes are the realized partial gains."""
         lam = C_M_PER_S / freq_hz
-        r_rx = self.receiver_load_ohm(freq_hz)
-        res = {}
-        for pol, (i_f, _) in currents.items():
-            g = 4 * np.pi / lam**2 * np.abs(i_f) ** 2 * r_rx * ETA0_OHM
-            res[pol] = np.where(above_horizon(el), g, 0.0)
-        return res["v"], res["h"]
+        scale = np.sqrt(4 * np.pi / lam**2 * self.receiver_load_ohm(freq_hz) * ETA0_OHM)
+        return tuple(np.where(above_horizon(el), scale * currents[pol][0], 0.0) for pol in ("v", "h"))
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        currents, el = self._currents(freq_hz, azimuth_rad, elevation_rad)
+        return self._port_response(freq_hz, currents, el)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""
-        currents, el = self._currents(freq_hz, azimuth_rad, elevation_rad)
-        return self._port_gain(freq_hz, currents, el)
+        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
+        return np.abs(ev) ** 2, np.abs(eh) ** 2
 
     def matched_partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Partial gains with a conjugate-matched receiver (realized gain over the mismatch factor)."""
@@ -447,19 +454,13 @@ class TwoWire(LongWire):
         alpha = np.real(lines.wire_internal_impedance(freq_hz, p.radius_m)) / z0d
         return float(np.exp(-2 * alpha * self.length_m))
 
-    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         currents, el = self._currents(freq_hz, azimuth_rad, elevation_rad)
         if self.params.port == "forward":
-            return self._port_gain(freq_hz, currents, el)
+            return self._port_response(freq_hz, currents, el)
         lam = C_M_PER_S / freq_hz
-        r_refl = self.termination_ohm(freq_hz)
-        loss = self.differential_loss(freq_hz)
-        out = []
-        for pol in ("v", "h"):
-            i_r = currents[pol][1]
-            g = 4 * np.pi / lam**2 * np.abs(i_r) ** 2 * r_refl * ETA0_OHM * loss
-            out.append(np.where(above_horizon(el), g, 0.0))
-        return tuple(out)
+        scale = np.sqrt(4 * np.pi / lam**2 * self.termination_ohm(freq_hz) * ETA0_OHM * self.differential_loss(freq_hz))
+        return tuple(np.where(above_horizon(el), scale * currents[pol][1], 0.0) for pol in ("v", "h"))
 
     def mismatch(self, freq_hz):
         if self.params.port == "reverse":

@@ -80,6 +80,10 @@ class SmallLoop(Antenna):
         return float(r_rad), float(r_loss)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
+        return np.abs(ev) ** 2, np.abs(eh) ** 2
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         el_c = np.clip(el, 0.0, np.pi / 2)
@@ -95,11 +99,9 @@ class SmallLoop(Antenna):
         omega = 2 * np.pi * freq_hz
         scale = (omega * MU0_H_PER_M * self.area_m2 * self.params.turns) ** 2 / (4 * ETA0_OHM * (r_rad + r_loss))
         lam = C_M_PER_S / freq_hz
-        out = []
-        for hn in (h_v, h_h):
-            a_e = scale * np.abs(hn) ** 2  # h_n = eta0 H_n for unit incident E
-            out.append(np.where(above_horizon(el), 4 * np.pi * a_e / lam**2, 0.0))
-        return out[0], out[1]
+        # A_e = scale |h_n|^2 (h_n = eta0 H_n for unit incident E); gain = 4 pi A_e / lambda^2.
+        amp = np.sqrt(4 * np.pi * scale / lam**2)
+        return tuple(np.where(above_horizon(el), amp * hn, 0.0) for hn in (h_v, h_h))
 
     def describe(self):
         return {**super().describe(), "area_m2": self.area_m2, "height_m": self.params.height,

@@ -108,6 +108,19 @@ class Vertical(Antenna):
         p_rad, i_sq = self._power_terms(freq_hz)
         return p_rad / (p_rad + 0.5 * i_sq * self.ground_loss_ohm)
 
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        self.check_frequency(freq_hz)
+        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+        k = 2 * np.pi * freq_hz / C_M_PER_S
+        psi = np.clip(el, 0.0, np.pi / 2)
+        r_v, _ = reflection_coefficients(self.ground, psi, freq_hz)
+        f = self._form_factor(k, np.sin(psi), r_v)
+        p_rad, i_sq = self._power_terms(freq_hz)
+        # |e|^2 = 4 pi U / P_in with U = eta0 k^2 / (32 pi^2) cos^2(psi) |F|^2.
+        scale = np.sqrt(4 * np.pi * ETA0_OHM * k**2 / (32 * np.pi**2) / (p_rad + 0.5 * i_sq * self.ground_loss_ohm))
+        ev = np.where(above_horizon(el), scale * np.cos(psi) * f, 0.0)
+        return ev, np.zeros_like(ev)
+
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
