@@ -15,7 +15,7 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field
 from snrgain import ground as groundmod
 from snrgain.units import DIMENSIONS, parse_db, parse_power_dbm, parse_quantity
 
-_SI_SYMBOL = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg"}
+_SI_SYMBOL = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg", "time": "s"}
 
 
 def _fmt(x: float, dimension: str) -> str:

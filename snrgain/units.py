@@ -22,6 +22,7 @@ DIMENSIONS: dict[str, tuple[str, str, bool]] = {
     "conductivity": ("siemens / meter", "'5 mS/m'", False),
     "resistance": ("ohm", "'10 ohm'", True),
     "angle": ("radian", "'45 deg' or a bare number of degrees", True),
+    "time": ("second", "'120 ns' or '0.12 us'", False),
 }
 
 S9_DBM = -73.0

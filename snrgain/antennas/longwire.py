@@ -213,6 +213,11 @@ class LongWire(Antenna):
         self._cache: dict[float, lines.LineConstants] = {}
 
     # -- the line and its loads --------------------------------------------------------
+    @property
+    def feed_rod_ohm(self) -> float:
+        """Resistance of the feed end's ground rod [ohm] (in series with the feed load)."""
+        return self.params.feed_ground
+
     def wire_height_m(self) -> float:
         return self.params.height
 
@@ -248,7 +253,7 @@ class LongWire(Antenna):
     def feed_point_impedance(self, freq_hz: float) -> complex:
         """Impedance the transformer's primary sees: the line's input impedance plus the feed ground rod [ohm]."""
         ln = self.line(freq_hz)
-        return lines.input_impedance(ln, length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz)) + self.params.feed_ground
+        return lines.input_impedance(ln, length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz)) + self.feed_rod_ohm
 
     def turns_ratio(self, freq_hz: float) -> float:
         """Transformer turns ratio (antenna side over coax side): as given, or the match for 'auto'."""
@@ -284,7 +289,7 @@ class LongWire(Antenna):
         L = self.length_m
         ln = self.line(freq_hz)
         g, z0 = ln.gamma, ln.z0
-        zf = self.receiver_load_ohm(freq_hz) + self.params.feed_ground
+        zf = self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm
         zr = self.far_load_ohm(freq_hz)
         r_v, r_h = reflection_coefficients(self.ground, el_c, freq_hz)
         s = np.sin(el_c)

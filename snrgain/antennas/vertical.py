@@ -50,7 +50,7 @@ _NPSI = 96
 class VerticalParams(AntennaParams):
     family: Literal["vertical"]
     height: quantity("length", gt=0.0, le=300.0)
-    ground_loss: quantity("resistance", ge=0.0, le=1000.0) = 10.0
+    ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     ground: GroundField | None = None
 
 

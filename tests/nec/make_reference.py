@@ -31,7 +31,15 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parents[1]))
 
-from necdeck import beverage_deck, metrics, parse_output, run_nec2c  # noqa: E402
+from necdeck import (  # noqa: E402
+    beverage_deck,
+    loop_deck,
+    metrics,
+    metrics_toward,
+    parse_output,
+    run_nec2c,
+    vertical_pair_deck,
+)
 
 RADIUS_M = 0.0008138  # AWG 14
 
@@ -46,6 +54,25 @@ CASES = [
     ("f710-l36-h2-vgood", 7.1, 36.0, 2.0, 20.0, 0.03),
 ]
 SWEEP = ("f183-l150-h3-poor", [200.0, 300.0, 400.0, 500.0, 700.0, 900.0])
+
+# Terminated rectangular loops: name, MHz, width, loop height, bottom height, termination, eps_r, sigma.
+# NEC's phi = 180 deg is the loop's favoured direction (from the termination toward the feed).
+LOOP_CASES = [
+    ("loop-f183-w85-r300", 1.83, 8.5, 4.3, 1.5, 300.0, 13.0, 0.005),
+    ("loop-f183-w85-r500", 1.83, 8.5, 4.3, 1.5, 500.0, 13.0, 0.005),
+    ("loop-f183-w85-r1000", 1.83, 8.5, 4.3, 1.5, 1000.0, 13.0, 0.005),
+    ("loop-f183-w85-r2000", 1.83, 8.5, 4.3, 1.5, 2000.0, 13.0, 0.005),
+    ("loop-f360-w5-r900", 3.6, 5.0, 3.0, 1.5, 900.0, 13.0, 0.005),
+    ("loop-f183-w10-r1100-poor", 1.83, 10.0, 5.0, 2.0, 1100.0, 5.0, 0.001),
+]
+# Two verticals a quarter wave apart, the one at +x lagging 90 deg (end-fire toward +x, NEC phi = 0), each
+# fed through a 2 kohm base load: name, MHz, height, spacing, eps_r, sigma.
+PAIR_CASES = [
+    ("pair-f183-h6", 1.83, 6.0, 40.96, 13.0, 0.005),
+    ("pair-f360-h4-poor", 3.6, 4.0, 20.82, 5.0, 0.001),
+]
+PAIR_LOAD_OHM = 2000.0
+PAIR_RADIUS_M = 0.01
 
 
 def auto_termination(f_mhz, length, height, eps, sigma):
@@ -71,8 +98,19 @@ def one(name, f, length, height, eps, sigma, r_term, work):
             "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)]}
 
 
+def _run(name, deck, work, forward_phi, extra):
+    (HERE / "cases").mkdir(exist_ok=True)
+    (HERE / "cases" / f"{name}.nec").write_text(deck)
+    out = parse_output(run_nec2c(deck, work, name))
+    m = metrics_toward(out["theta_deg"], out["phi_deg"], out["gain_dbi"], forward_phi_deg=forward_phi)
+    z = out["feed_impedance_ohm"]
+    return {"name": name, **extra, "deck": f"cases/{name}.nec", **{k: round(float(v), 3) for k, v in m.items()},
+            "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)]}
+
+
 def main():
-    ref = {"engine": "nec2c (NEC-2 in C, Debian package nec2c)", "elevation_deg": 20.0, "cases": [], "sweep": []}
+    ref = {"engine": "nec2c (NEC-2 in C, Debian package nec2c)", "elevation_deg": 20.0, "cases": [], "sweep": [],
+           "loops": [], "pairs": []}
     with tempfile.TemporaryDirectory() as tmp:
         work = Path(tmp)
         for name, f, length, height, eps, sigma in CASES:
@@ -82,8 +120,22 @@ def main():
         _, f, length, height, eps, sigma = next(c for c in CASES if c[0] == name)
         for r in values:
             ref["sweep"].append(one(f"{name}-r{int(r)}", f, length, height, eps, sigma, r, work))
+        for name, f, w, h, bottom, r_term, eps, sigma in LOOP_CASES:
+            deck = loop_deck(freq_mhz=f, width_m=w, bottom_m=bottom, top_m=bottom + h, radius_m=RADIUS_M,
+                             permittivity=eps, conductivity_s_per_m=sigma, termination_ohm=r_term)
+            ref["loops"].append(_run(name, deck, work, 180.0, {
+                "freq_mhz": f, "width_m": w, "loop_height_m": h, "height_m": bottom, "termination_ohm": r_term,
+                "permittivity": eps, "conductivity_s_per_m": sigma, "radius_m": RADIUS_M}))
+        for name, f, h, spacing, eps, sigma in PAIR_CASES:
+            deck = vertical_pair_deck(freq_mhz=f, height_m=h, spacing_m=spacing, radius_m=PAIR_RADIUS_M,
+                                      permittivity=eps, conductivity_s_per_m=sigma, load_ohm=PAIR_LOAD_OHM,
+                                      phase_deg=-90.0)
+            ref["pairs"].append(_run(name, deck, work, 0.0, {
+                "freq_mhz": f, "height_m": h, "spacing_m": spacing, "permittivity": eps,
+                "conductivity_s_per_m": sigma, "load_ohm": PAIR_LOAD_OHM}))
     (HERE / "reference.json").write_text(json.dumps(ref, indent=1) + "\n")
-    print(f"wrote {len(ref['cases'])} cases and {len(ref['sweep'])} sweep points to {HERE / 'reference.json'}")
+    print(f"wrote {len(ref['cases'])} wire cases, {len(ref['sweep'])} sweep points, {len(ref['loops'])} loops and "
+          f"{len(ref['pairs'])} vertical pairs to {HERE / 'reference.json'}")
 
 
 if __name__ == "__main__":

@@ -1,0 +1,154 @@
+"""Compact receiving antennas: terminated loops, phased verticals, arrays; NEC-2 references and textbook limits."""
+
+import json
+
+import numpy as np
+import pytest
+
+from noisemodels.sphere import upper_hemisphere
+from snrgain import snr
+from snrgain.antennas import SpecError, from_spec
+from snrgain.ground import C_M_PER_S
+from tests.conftest import REPO
+
+REF = json.loads((REPO / "tests" / "nec" / "reference.json").read_text())
+GRID = upper_hemisphere(32)
+EL20 = np.radians(20.0)
+F = 1.83e6
+
+
+def _figures(ant, f, forward_deg):
+    g = ant.gain_linear(f, GRID.azimuth_rad, GRID.elevation_rad)
+    fw = ant.gain_linear(f, np.array([np.radians(forward_deg)]), np.array([EL20]))[0]
+    bk = ant.gain_linear(f, np.array([np.radians(forward_deg + 180)]), np.array([EL20]))[0]
+    m = ant.mismatch(f) if hasattr(ant, "mismatch") else 1.0
+    return {"forward_gain_dbi": 10 * np.log10(fw / m), "front_to_back_db": 10 * np.log10(fw / bk),
+            "rdf_db": 10 * np.log10(fw / snr.hemisphere_mean_gain(g, GRID))}
+
+
+@pytest.mark.parametrize("case", REF["loops"], ids=[c["name"] for c in REF["loops"]])
+def test_terminated_loop_against_nec2(case):
+    # Reference: NEC-2 (nec2c), Sommerfeld ground, decks in tests/nec/cases.  NEC's forward is phi = 180 deg,
+    # the side opposite the termination; the model's loop is given bearing 180 deg to match.
+    # RDF within 1 dB and gain within 2 dB in every case.  Front-to-back within 3.5 dB where NEC's lies below
+    # 20 dB in both (measured: 1.5, 3.1, 2.8 dB off at 300, 500, 2000 ohm); near the termination of deepest
+    # null one model or both put the rear 20-40 dB down, where its exact depth turns on details neither
+    # resolves (the loop's capacitance, its coupling to the ground), so there the check is that both exceed 15 dB.
+    ant = from_spec({"family": "terminated-loop", "width": f"{case['width_m']} m",
+                     "loop_height": f"{case['loop_height_m']} m", "height": f"{case['height_m']} m",
+                     "termination": case["termination_ohm"], "bearing": 180, "diameter": f"{2 * case['radius_m']} m",
+                     "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m",
+                                "permittivity": case["permittivity"]}})
+    got = _figures(ant, case["freq_mhz"] * 1e6, 180.0)
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
+    if case["front_to_back_db"] < 20 and got["front_to_back_db"] < 20:
+        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.5)
+    else:  # a deep null in either model: the terminations of deepest null differ (about 800 vs 1000-1300 ohm)
+        assert got["front_to_back_db"] > 15 and case["front_to_back_db"] > 15
+    # The feed impedance within 30 % of NEC's (measured: 1-28 %; furthest where the termination is mismatched).
+    z_nec = complex(*case["feed_impedance_ohm"])
+    assert abs(ant.feed_point_impedance(case["freq_mhz"] * 1e6) - z_nec) < 0.30 * abs(z_nec)
+
+
+@pytest.mark.parametrize("case", REF["pairs"], ids=[c["name"] for c in REF["pairs"]])
+def test_phased_vertical_pair_against_nec2(case):
+    # Reference: NEC-2 (nec2c), Sommerfeld ground; each vertical fed through a 2 kohm base load, which the
+    # model counts as the element's series loss, plus NEC's own ground-contact resistance, about
+    # 1 / (2 pi sigma 0.55 m) (measured on the long-wire cases).  Tolerances: RDF 1 dB, gain 2 dB, F/B 3 dB.
+    contact = 1.0 / (2 * np.pi * case["conductivity_s_per_m"] * 0.55)
+    ant = from_spec({"family": "phased-verticals", "positions": [[0, 0], [0, case["spacing_m"]]],
+                     "height": f"{case['height_m']} m", "ground_loss": case["load_ohm"] + contact, "bearing": 0,
+                     "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m",
+                                "permittivity": case["permittivity"]}})
+    got = _figures(ant, case["freq_mhz"] * 1e6, 0.0)
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
+    assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.0)
+
+
+def test_quarter_wave_pair_of_isotropic_elements_is_a_cardioid():
+    # Textbook (Kraus, Antennas, Section 4-3): two isotropic sources lambda/4 apart, 90 deg out of phase:
+    # |AF|^2 = 4 cos^2(pi/4 (cos(theta) - 1)): null to the rear, 3 dB down at the sides.
+    lam = C_M_PER_S / F
+    arr = from_spec({"family": "array", "bearing": 0, "elements": [
+        {"family": "isotropic", "position": [0, 0]}, {"family": "isotropic", "position": [0, lam / 4]}]})
+    az = np.radians(np.arange(0, 360, 5.0))
+    g = arr.gain_linear(F, az, np.zeros_like(az))
+    expect = 4 * np.cos(np.pi / 4 * (np.cos(az) - 1)) ** 2 / 2  # normalised by sum |w|^2 = 2
+    np.testing.assert_allclose(g, expect, atol=1e-9)
+    assert g[36] < 1e-12  # rear null at 180 deg
+
+
+@pytest.mark.parametrize("n, d_wl, beta_deg", [(3, 0.5, 0.0), (4, 0.25, -90.0), (5, 0.3, 40.0)])
+def test_uniform_linear_array_factor(n, d_wl, beta_deg):
+    # Textbook closed form: |AF|^2 = [sin(N psi/2) / sin(psi/2)]^2, psi = k d cos(theta) + beta (Balanis, Antenna
+    # Theory, Section 6.3); divided by N for a lossless N-way combiner.
+    lam = C_M_PER_S / F
+    d = d_wl * lam
+    elements = [{"family": "isotropic", "position": [0, i * d], "phase": -i * beta_deg} for i in range(n)]
+    arr = from_spec({"family": "array", "steering": "given", "elements": elements})
+    az = np.radians(np.linspace(0.5, 359.5, 90))
+    el = np.radians(10.0)
+    g = arr.gain_linear(F, az, np.full_like(az, el))
+    psi = 2 * np.pi * d_wl * np.cos(el) * np.cos(az) + np.radians(beta_deg)
+    af = (np.sin(n * psi / 2) / np.sin(psi / 2)) ** 2 / n
+    np.testing.assert_allclose(g, af, rtol=1e-9, atol=1e-12)
+
+
+@pytest.mark.parametrize("spec", [
+    {"family": "vertical", "height": "8 m"},
+    {"family": "beverage", "length": "200 m", "height": "2.5 m", "bearing": 30},
+    {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "2 m", "bearing": 70},
+    {"family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "height": "1.5 m", "termination": 900},
+])
+def test_array_of_one_element_leaves_its_pattern_unchanged(spec):
+    spec = {**spec, "ground": "average"}
+    alone = from_spec(spec)
+    arr = from_spec({"family": "array", "elements": [spec]})
+    np.testing.assert_allclose(arr.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad),
+                               alone.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad), rtol=1e-10, atol=0)
+
+
+def test_broadside_pair_of_beverages_beats_one():
+    # Two identical Beverages side by side, added in phase: up to twice the gain forward, narrower lobe.
+    lam = C_M_PER_S / F
+    bev = {"family": "beverage", "length": "250 m", "height": "2.5 m", "ground": "average", "bearing": 0}
+    one = from_spec(bev)
+    pair = from_spec({"family": "array", "steering": "given", "elements": [
+        {**bev, "position": [0, 0]}, {**bev, "position": [0.6 * lam, 0]}]})
+    assert 10 * np.log10(pair.gain_linear(F, np.array([0.0]), np.array([EL20]))[0]
+                         / one.gain_linear(F, np.array([0.0]), np.array([EL20]))[0]) == pytest.approx(3.01, abs=0.01)
+    tgt = np.radians(20.0)
+    rdf = [snr.rdf_db(a.gain_linear(F, np.array([0.0]), np.array([tgt]))[0],
+                      snr.hemisphere_mean_gain(a.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad), GRID))
+           for a in (one, pair)]
+    assert rdf[1] > rdf[0] + 1.5
+
+
+def test_terminated_loop_cardioid_and_figure_eight():
+    base = {"family": "terminated-loop", "width": "8.5 m", "loop_height": "4.3 m", "height": "1.5 m",
+            "ground": "average", "bearing": 45}
+    auto = from_spec({**base, "termination": "auto"})
+    fb = auto.gain_dbi(F, 45, 20) - auto.gain_dbi(F, 225, 20)
+    assert fb > 15 and 500 < auto.termination_ohm(F) < 2500  # common practice: flags want about 1 kohm
+    shorted = from_spec({**base, "termination": 0.0})
+    assert abs(shorted.gain_dbi(F, 45, 20) - shorted.gain_dbi(F, 225, 20)) < 0.5
+    gv, _ = shorted.partial_gains_dbi(F, [45.0, 135.0], [5.0, 5.0])
+    assert gv[1] < gv[0] - 12  # the side null (vertical polarization), filled to about -16 dB by the line transit
+
+
+def test_array_bad_input():
+    with pytest.raises(SpecError, match="one family"):
+        from_spec({"family": "array", "elements": [{"family": "isotropic"}, {"family": "vertical", "height": "5 m"}]})
+    with pytest.raises(SpecError, match="carries no phase|tabulated"):
+        arr = from_spec({"family": "array", "elements": [
+            {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")}]})
+        arr.gain_linear(F, np.array([0.0]), np.array([0.1]))
+    with pytest.raises(SpecError, match="steering = 'auto'"):
+        from_spec({"family": "array", "elements": [{"family": "isotropic", "delay": "10 ns"}]})
+    with pytest.raises(SpecError, match="elements\\[0\\].height"):
+        from_spec({"family": "array", "elements": [{"family": "vertical", "height": "-5 m"}]})
+    with pytest.raises(SpecError, match="delays has 1 entries"):
+        from_spec({"family": "phased-verticals", "positions": [[0, 0], [0, 40]], "height": "6 m",
+                   "steering": "given", "delays": ["10 ns"]})
