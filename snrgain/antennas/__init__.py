@@ -4,6 +4,6 @@ Importing this package registers every family in :data:`FAMILIES`.
 """
 
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, from_spec, register, validate_spec
-from snrgain.antennas import array, isotropic, longwire, smallloop, tabulated, termloop, vertical  # noqa: F401  (registers)
+from snrgain.antennas import array, isotropic, longwire, smallloop, tabulated, termloop, vertical, wires  # noqa: F401
 
 __all__ = ["FAMILIES", "Antenna", "AntennaParams", "SpecError", "from_spec", "register", "validate_spec"]
