@@ -11,7 +11,7 @@ from noisemodels.sphere import upper_hemisphere
 from snrgain import calibrate as cal
 from snrgain.antennas import from_spec
 from snrgain.cli.main import cli
-from snrgain.ground import GROUND_TYPES, C_M_PER_S
+from snrgain.ground import C_M_PER_S
 from snrgain.locate import LocateError, Reading, locate
 from snrgain.receiver import power_dbm
 from tests.conftest import SCENARIOS

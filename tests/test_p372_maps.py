@@ -1,7 +1,6 @@
 """P.372 atmospheric noise from the ITU-R Study Group 3 numerical maps, and its directions of arrival."""
 
 import csv
-import shutil
 
 import numpy as np
 import pytest

@@ -285,7 +285,6 @@ class LongWire(Antenna):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         el_c = np.clip(el, 0.0, np.pi / 2)
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        h = self.wire_height_m()
         L = self.length_m
         ln = self.line(freq_hz)
         g, z0 = ln.gamma, ln.z0

@@ -122,16 +122,8 @@ class Vertical(Antenna):
         return ev, np.zeros_like(ev)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
-        self.check_frequency(freq_hz)
-        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
-        k = 2 * np.pi * freq_hz / C_M_PER_S
-        psi = np.clip(el, 0.0, np.pi / 2)
-        r_v, _ = reflection_coefficients(self.ground, psi, freq_hz)
-        f = self._form_factor(k, np.sin(psi), r_v)
-        u = ETA0_OHM * k**2 / (32 * np.pi**2) * np.cos(psi) ** 2 * np.abs(f) ** 2
-        p_rad, i_sq = self._power_terms(freq_hz)
-        g = 4 * np.pi * u / (p_rad + 0.5 * i_sq * self.ground_loss_ohm)
-        gv = np.where(above_horizon(el), g, 0.0)
+        ev, _ = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
+        gv = np.abs(ev) ** 2
         return gv, np.zeros_like(gv)
 
     def describe(self):

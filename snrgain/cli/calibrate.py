@@ -10,7 +10,7 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, overwrite_option
+from snrgain.cli.options import handle_errors, scenario_copy_options
 
 EXAMPLE = """\
 # Readings of a laid wire, taken at its feed end with an antenna analyser.
@@ -52,12 +52,7 @@ def parse_impedance(value, where: str) -> complex:
                    "shorter than a quarter wave).")
 @click.option("--permittivity", type=click.FloatRange(1, 100), default=None,
               help="Fix the soil's relative permittivity and fit only its conductivity.")
-@click.option("--scenario", type=click.Path(exists=True, dir_okay=False, path_type=str), default=None,
-              help="A scenario to copy with the fitted ground written into its [site] section.")
-@click.option("--write", "write_to", type=click.Path(dir_okay=False, path_type=str), default=None,
-              help="Where to write that copy (with --scenario).")
-@overwrite_option
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@scenario_copy_options("the fitted ground written into its [site] section")
 @handle_errors
 def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, overwrite, fmt):
     """Turn analyser READINGS of a laid wire into its line constants and the soil's constants.

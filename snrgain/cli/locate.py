@@ -9,7 +9,7 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, overwrite_option
+from snrgain.cli.options import handle_errors, scenario_copy_options
 
 EXAMPLE = """\
 # Noise readings for snrgain locate: the same noise read on known antennas.
@@ -110,12 +110,7 @@ def load_readings(path: Path):
               help="Source elevation [deg] when not fitted.")
 @click.option("--plot", type=click.Path(dir_okay=False, path_type=str), default=None,
               help="Save a polar plot of the fitted direction (PNG or SVG).")
-@click.option("--scenario", type=click.Path(exists=True, dir_okay=False, path_type=str), default=None,
-              help="A scenario to copy with the fitted sources added as [[noise.local]].")
-@click.option("--write", "write_to", type=click.Path(dir_okay=False, path_type=str), default=None,
-              help="Where to write that copy (with --scenario).")
-@overwrite_option
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@scenario_copy_options("the fitted sources added as [[noise.local]]")
 @handle_errors
 def locate(readings, example, sources, fit_elevation, elevation, plot, scenario, write_to, overwrite, fmt):
     """Fit local noise sources (bearing, level) and a diffuse background to READINGS.

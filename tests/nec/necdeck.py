@@ -73,16 +73,8 @@ def parse_output(text: str) -> dict:
 
 
 def metrics(theta_deg, phi_deg, gain_dbi, *, elevation_deg=20.0) -> dict:
-    """Forward gain, front-to-back and RDF at an elevation from a pattern on a regular (theta, phi) grid."""
-    g = np.maximum(np.asarray(gain_dbi), -300.0)
-    lin = 10 ** (g / 10)
-    w = np.sin(np.radians(theta_deg))
-    w = np.where(np.isclose(theta_deg, 90.0), 0.5 * w, w)
-    mean = float(np.sum(lin * w) / np.sum(w))
-    th = 90.0 - elevation_deg
-    fwd = float(g[np.isclose(theta_deg, th) & np.isclose(phi_deg, 0.0)][0])
-    back = float(g[np.isclose(theta_deg, th) & np.isclose(phi_deg, 180.0)][0])
-    return {"forward_gain_dbi": fwd, "front_to_back_db": fwd - back, "rdf_db": fwd - 10 * np.log10(mean)}
+    """Forward gain, front-to-back and RDF at an elevation, forward at NEC azimuth 0 (see metrics_toward)."""
+    return metrics_toward(theta_deg, phi_deg, gain_dbi, forward_phi_deg=0.0, elevation_deg=elevation_deg)
 
 
 def loop_deck(*, freq_mhz, width_m, bottom_m, top_m, radius_m, permittivity, conductivity_s_per_m, termination_ohm,
