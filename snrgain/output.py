@@ -92,7 +92,7 @@ def ranking_table(results: Results):
     t = Table(title=f"SNR gain over {r.reference.name}, mean over targets and hours", title_justify="left")
     t.add_column("#", justify="right")
     t.add_column("antenna", no_wrap=True, max_width=34)
-    for label in ("SNR dB\nmean", "SNR dB\nworst", "RDF\ndB", "F/B\ndB", "G tgt\ndBi", "noise\ndBm"):
+    for label in ("SNR dB\nmean", "SNR dB\nworst", "RDF dB\nwtd", "F/B dB\nwtd", "G tgt\ndBi", "noise\ndBm"):
         t.add_column(label, justify="right", no_wrap=True)
     t.add_column("S", no_wrap=True)
     t.add_column("margin\ndB", justify="right", no_wrap=True)
@@ -115,14 +115,15 @@ def ranking_table(results: Results):
     for i, a in enumerate(r.candidates):
         row(str(i + 1), a)
 
-    pt = Table(title="SNR gain per target [dB] (mean over hours; worst in brackets)", title_justify="left")
+    pt = Table(title="Per target: SNR gain dB, mean over hours (worst), and RDF dB", title_justify="left")
     pt.add_column("antenna", no_wrap=True, max_width=34)
     for tg in r.targets:
         extra = f"\n{tg['bearing_deg']:.0f} deg, {tg['elevation_min_deg']:.0f}-{tg['elevation_max_deg']:.0f} deg el"
         pt.add_column(tg["name"] + extra, justify="right")
     for a in r.candidates:
-        pt.add_row(a.name, *[f"{_f(a.snr_gain_db[i].mean())} ({_f(a.snr_gain_db[i].min())})" for i in range(len(r.targets))])
-    foot = Text("noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst hour); "
+        pt.add_row(a.name, *[f"{_f(a.snr_gain_db[i].mean())} ({_f(a.snr_gain_db[i].min())})  RDF {_f(a.rdf_db[i])}"
+                             for i in range(len(r.targets))])
+    foot = Text("wtd: weighted mean over the targets (see the per-target table); noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst hour); "
                 "'!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the target "
                 "('none' if no gain can).", style="dim")
     return Group(head, t, pt, foot)

@@ -10,7 +10,7 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, scenario_copy_options
+from snrgain.cli.options import handle_errors, readings_preamble, scenario_copy_options
 
 EXAMPLE = """\
 # Readings of a laid wire, taken at its feed end with an antenna analyser.
@@ -66,13 +66,9 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
     from snrgain.antennas import from_spec
     from snrgain.units import parse_quantity
 
-    if example:
-        click.echo(EXAMPLE, nl=False)
+    if readings_preamble(example_text=EXAMPLE, example=example, readings=readings, scenario=scenario,
+                         write_to=write_to):
         return
-    if readings is None:
-        raise click.UsageError("give a READINGS file (see --example)")
-    if (scenario is None) != (write_to is None):
-        raise click.UsageError("--scenario and --write go together")
     path = Path(readings)
     try:
         data = tomllib.loads(path.read_text(encoding="utf-8"))

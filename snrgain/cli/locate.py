@@ -9,7 +9,7 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, scenario_copy_options
+from snrgain.cli.options import handle_errors, readings_preamble, scenario_copy_options
 
 EXAMPLE = """\
 # Noise readings for snrgain locate: the same noise read on known antennas.
@@ -123,13 +123,9 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     from snrgain import locate as loc
     from snrgain.output import check_writable, write_whole
 
-    if example:
-        click.echo(EXAMPLE, nl=False)
+    if readings_preamble(example_text=EXAMPLE, example=example, readings=readings, scenario=scenario,
+                         write_to=write_to):
         return
-    if readings is None:
-        raise click.UsageError("give a READINGS file (see --example)")
-    if (scenario is None) != (write_to is None):
-        raise click.UsageError("--scenario and --write go together")
     for target in (plot, write_to):
         if target is not None:
             check_writable(target, overwrite=overwrite)

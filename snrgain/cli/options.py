@@ -70,3 +70,15 @@ def scenario_copy_options(what: str):
         return fn
 
     return deco
+
+
+def readings_preamble(*, example_text: str, example: bool, readings, scenario, write_to) -> bool:
+    """Common start of the readings commands: print the example (True: done) or check the arguments."""
+    if example:
+        click.echo(example_text, nl=False)
+        return True
+    if readings is None:
+        raise click.UsageError("give a READINGS file (see --example)")
+    if (scenario is None) != (write_to is None):
+        raise click.UsageError("--scenario and --write go together")
+    return False
