@@ -197,3 +197,31 @@ def test_wire_structure_refuses_low_wires_over_lossy_ground():
     with pytest.raises(SpecError, match="wire 3 is named"):
         from_spec({"family": "wire-structure", "wires": [{"from": [0, 0, 2], "to": [1, 0, 2]}],
                    "feed": {"wire": 3, "at": 0.0}})
+
+
+def test_top_loading_makes_the_current_uniform():
+    # Textbook (Kraus, Antennas; half the short dipole's values): a short monopole's radiation resistance is
+    # 40 pi^2 (h/lambda)^2 with the triangular current of a plain wire, and 160 pi^2 (h/lambda)^2 with the
+    # uniform current heavy top loading gives: four times more.
+    lam = C_M_PER_S / F
+    plain = from_spec({"family": "vertical", "height": "3 m", "ground": "perfect", "ground_loss": 0})
+    hat = from_spec({"family": "vertical", "height": "3 m", "top_loading": "30 m", "ground": "perfect",
+                     "ground_loss": 0})
+    assert plain.radiation_resistance_ohm(F) == pytest.approx(40 * np.pi**2 * (3 / lam) ** 2, rel=0.01)
+    ratio = hat.radiation_resistance_ohm(F) / plain.radiation_resistance_ohm(F)
+    assert 3.0 < ratio < 4.0  # 30 m of loading on 3 m: close to uniform, not quite
+
+
+def test_phased_verticals_limited_to_short_elements():
+    ant = from_spec({"family": "phased-verticals", "positions": [[0, 0], [0, 20]], "height": "20 m"})
+    with pytest.raises(ValueError, match="mutual coupling"):
+        ant.check_frequency(F)
+
+
+def test_terminated_loop_auto_for_front_to_back():
+    base = {"family": "terminated-loop", "width": "8.5 m", "loop_height": "4.3 m", "ground": "average"}
+    rdf = from_spec({**base, "auto_for": "rdf"})
+    fb = from_spec({**base, "auto_for": "front_to_back"})
+    f_b = fb.gain_dbi(F, 0, 20) - fb.gain_dbi(F, 180, 20)
+    f_r = rdf.gain_dbi(F, 0, 20) - rdf.gain_dbi(F, 180, 20)
+    assert f_b >= f_r - 1e-9 and f_b > 25

@@ -58,6 +58,7 @@ class PhasedVerticalsParams(AntennaParams):
     positions: list[PlanPoint] = Field(min_length=1, max_length=64)
     height: quantity("length", gt=0.0, le=60.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
+    top_loading: quantity("length", ge=0.0, le=60.0) = 0.0
     steering: Literal["auto", "given"] = "auto"
     bearing: Bearing = 0.0
     delays: list[str | float] | None = None
@@ -193,7 +194,7 @@ class PhasedVerticals(Array):
         elements = []
         for i, pos in enumerate(params.positions):
             e = {"family": "vertical", "height": f"{params.height} m", "ground_loss": params.ground_loss,
-                 "position": [pos[0], pos[1]]}
+                 "top_loading": f"{params.top_loading} m", "position": [pos[0], pos[1]]}
             if params.delays is not None:
                 e["delay"] = params.delays[i]
             if params.phases is not None:
@@ -205,6 +206,16 @@ class PhasedVerticals(Array):
                          steering=params.steering, bearing=params.bearing, ground=params.ground)
         super().__init__(ap)
         self.params = params
+
+    MAX_ELEMENT_WAVELENGTHS = 0.1
+
+    def check_frequency(self, freq_hz):
+        super().check_frequency(freq_hz)
+        h_wl = (self.params.height + self.params.top_loading) * freq_hz / C_M_PER_S
+        if h_wl > self.MAX_ELEMENT_WAVELENGTHS:
+            raise ValueError(f"height: elements of {h_wl:.2f} wavelength couple too strongly for a model without "
+                             f"mutual coupling; phased verticals are taken up to {self.MAX_ELEMENT_WAVELENGTHS} "
+                             "wavelength (with top loading)")
 
     def describe(self):
         return {**super().describe(), "height_m": self.params.height}

@@ -30,8 +30,9 @@ favoured direction (termination opposite it).  Shorted, the loop becomes a
 figure-eight.  A
 triangle or diamond is taken as the rectangle of the same width and area
 centred at the same height (an approximation for the narrow ends).
-``termination = "auto"`` picks the resistor of highest RDF at 20 deg
-elevation along the bearing.  Checked against NEC-2 (tests/nec/).
+``termination = "auto"`` picks the resistor of highest RDF (``auto_for =
+"rdf"``, the default) or front-to-back (``"front_to_back"``) toward the
+bearing at ``auto_elevation`` (20 deg).  Checked against NEC-2 (tests/nec/).
 """
 
 from __future__ import annotations
@@ -58,6 +59,9 @@ class TerminatedLoopParams(AntennaParams):
     """Height of the loop's lowest point above the ground [m]."""
     bearing: Bearing = 0.0
     termination: quantity("resistance", ge=0.0, le=20000.0) | Literal["auto"] = "auto"
+    auto_for: Literal["rdf", "front_to_back"] = "rdf"
+    """What termination = "auto" maximises, toward the bearing at auto_elevation."""
+    auto_elevation: quantity("angle", ge=0.0, le=np.pi / 2) = np.radians(20.0)
     gauge: int | None = Field(default=None, ge=-3, le=40)
     diameter: quantity("length", gt=0.0, le=0.02) | None = None
     coax: Literal[50, 75] = 75
@@ -132,17 +136,20 @@ class TerminatedLoop(LongWire):
         return self._auto_term[freq_hz]
 
     def _best_termination(self, freq_hz: float) -> float:
-        """The resistor of highest RDF at 20 deg along the bearing (sweep on a coarse sky)."""
+        """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation (coarse sweep)."""
         grid = upper_hemisphere(8)
-        el20 = np.array([np.radians(20.0)])
+        el = np.array([self.params.auto_elevation])
         best, best_r = -np.inf, None
         for r in np.geomspace(100.0, 5000.0, 41):
             self._auto_term[freq_hz] = float(r)
-            g = self.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad)
-            fwd = self.gain_linear(freq_hz, np.array([self.favoured_rad]), el20)[0]
-            rdf = fwd / (np.dot(g, grid.solid_angle_sr) / (2 * np.pi))
-            if rdf > best:
-                best, best_r = rdf, float(r)
+            fwd = self.gain_linear(freq_hz, np.array([self.favoured_rad]), el)[0]
+            if self.params.auto_for == "rdf":
+                g = self.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad)
+                figure = fwd / (np.dot(g, grid.solid_angle_sr) / (2 * np.pi))
+            else:
+                figure = fwd / max(self.gain_linear(freq_hz, np.array([self.favoured_rad + np.pi]), el)[0], 1e-300)
+            if figure > best:
+                best, best_r = figure, float(r)
         return best_r
 
     def far_load_ohm(self, freq_hz: float):

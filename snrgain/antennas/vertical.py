@@ -3,7 +3,9 @@
 Model
 -----
 A thin vertical wire of height h, fed at its base against a radial system,
-carries the sinusoidal current I(z) = sin(k (h - z)).  Its far field is that
+carries the sinusoidal current I(z) = sin(k (h + t - z)), t the electrical
+length added by top loading (0 without; the top hat's own radiation, which
+cancels in the far field for a symmetric hat, is left out).  Its far field is that
 of the current plus its image weighted by the Fresnel coefficient for vertical
 polarization (the reflection-coefficient approximation):
 
@@ -51,6 +53,8 @@ class VerticalParams(AntennaParams):
     family: Literal["vertical"]
     height: quantity("length", gt=0.0, le=300.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
+    top_loading: quantity("length", ge=0.0, le=300.0) = 0.0
+    """Electrical length added by a top hat or top wires [m]: the current runs as sin(k (h + top_loading - z))."""
     ground: GroundField | None = None
 
 
@@ -61,6 +65,7 @@ class Vertical(Antenna):
     def __init__(self, params: VerticalParams):
         super().__init__(params)
         self.height_m = params.height
+        self.top_m = params.top_loading
         self.ground_loss_ohm = params.ground_loss
         self.ground = make_ground(params.ground)
         self._cache: dict[float, tuple[float, float]] = {}
@@ -69,16 +74,16 @@ class Vertical(Antenna):
         self._wz = 0.5 * self.height_m * wq
 
     def check_frequency(self, freq_hz):
-        h_wl = self.height_m * freq_hz / C_M_PER_S
+        h_wl = (self.height_m + self.top_m) * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
             raise ValueError(
-                f"height: {self.height_m:g} m is {h_wl:.2f} wavelengths at {freq_hz / 1e6:g} MHz; "
-                f"the vertical model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths"
+                f"height: {self.height_m:g} m (plus {self.top_m:g} m of top loading) is {h_wl:.2f} wavelengths at "
+                f"{freq_hz / 1e6:g} MHz; the vertical model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths"
             )
 
     def _form_factor(self, k, sin_psi, r_v):
         """F = integral I(z) [e^{jkz s} + R_v e^{-jkz s}] dz for arrays of s, R_v."""
-        current = np.sin(k * (self.height_m - self._z))  # (nz,)
+        current = np.sin(k * (self.height_m + self.top_m - self._z))  # (nz,)
         phase = np.exp(1j * k * np.multiply.outer(sin_psi, self._z))  # (..., nz)
         direct = phase @ (current * self._wz)
         reflected = np.conj(phase) @ (current * self._wz)
@@ -94,7 +99,7 @@ class Vertical(Antenna):
             f_pg = self._form_factor(k, np.sin(psi), np.ones_like(psi))
             u = ETA0_OHM * k**2 / (32 * np.pi**2) * np.cos(psi) ** 2 * np.abs(f_pg) ** 2
             p_rad = 2 * np.pi * float(np.sum(u * np.cos(psi) * wpsi))
-            i_base_sq = float(np.sin(k * self.height_m) ** 2)
+            i_base_sq = float(np.sin(k * (self.height_m + self.top_m)) ** 2)
             self._cache[freq_hz] = (p_rad, i_base_sq)
         return self._cache[freq_hz]
 
@@ -131,5 +136,6 @@ class Vertical(Antenna):
             **super().describe(),
             "height_m": self.height_m,
             "ground_loss_ohm": self.ground_loss_ohm,
+            "top_loading_m": self.top_m,
             "ground": "perfect" if self.ground is None else self.ground.name,
         }
