@@ -212,7 +212,11 @@ def preamp_advice(chain: Chain, antenna_temperature_k: float, margin_db: float) 
 
 def from_scenario(model, *, freq_hz: float, receiver_noise_figure_db: float) -> Chain:
     """The chain of a validated scenario: transformer, feed line, preamplifier, receiver."""
-    c = model.chain
+    return from_section(model.chain, freq_hz=freq_hz, receiver_noise_figure_db=receiver_noise_figure_db)
+
+
+def from_section(c, *, freq_hz: float, receiver_noise_figure_db: float) -> Chain:
+    """The chain of a validated [chain] section (the scenario's, or an antenna's own ``chain`` table)."""
     stages = [passive("transformer", c.transformer_loss)]
     if c.feedline is not None:
         fl = c.feedline

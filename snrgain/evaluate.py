@@ -76,6 +76,8 @@ class AntennaResult:
     summary_snr_gain_db: float
     worst_snr_gain_db: float
     receiver_limited: bool
+    chain: dict[str, Any] = field(default_factory=dict)
+    """This antenna's chain: noise_figure_db, gain_db, noise_floor_dbm (at the receiver input), stages."""
 
 
 @dataclass
@@ -183,6 +185,7 @@ def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
         "preamp_gain_needed_db": {"axes": ["month", "utc_hour"], "values": a.preamp_gain_needed_db},
         "preamp_position": a.preamp_position,
         "receiver_limited": a.receiver_limited,
+        "chain": a.chain,
     }
 
 
@@ -226,13 +229,18 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     else:
         nf_db = m.receiver.noise_figure if m.receiver.noise_figure is not None else scenariomod.DEFAULT_NOISE_FIGURE_DB
     chain = chainmod.from_scenario(m, freq_hz=f, receiver_noise_figure_db=nf_db)
-    t_rx = chain.temperature_k  # the whole chain, referred to the antenna terminals
-    chain_gain_db = 10.0 * np.log10(chain.gain)
-    # The chain's floor at the receiver input: k T0 b F G (what the receiver shows with a matched load at T0).
-    floor_dbm = float(rx.noise_floor_dbm(10.0 * np.log10(chain.noise_factor), bandwidth_hz=b)) + chain_gain_db
+    own = sc.antenna_chains or (None,) * len(antennas)
+    chains = [chain if c is None else chainmod.from_section(c, freq_hz=f, receiver_noise_figure_db=nf_db) for c in own]
+    # Each antenna's chain, referred to its terminals; gains and floors at the receiver input (k T0 b F G: what
+    # the receiver shows with a matched load at T0 in place of the antenna).
+    t_rx = np.array([c.temperature_k for c in chains])[:, None, None]
+    gain_db = np.array([10.0 * np.log10(c.gain) for c in chains])
+    floor_dbm = np.array([float(rx.noise_floor_dbm(10.0 * np.log10(c.noise_factor), bandwidth_hz=b)) for c in chains]) + gain_db
+    chain_gain_db = float(10.0 * np.log10(chain.gain))
+    scenario_floor_dbm = float(rx.noise_floor_dbm(10.0 * np.log10(chain.noise_factor), bandwidth_hz=b)) + chain_gain_db
 
-    # Step 3: noise per month and hour.
-    static = noisemod.static_components(sc, grid, caches[0], chain_gain_db=chain_gain_db)
+    # Step 3: noise per month and hour.  A local source's level is read on the reference through its chain.
+    static = noisemod.static_components(sc, grid, caches[0], chain_gain_db=float(gain_db[0]))
     nm, nh = len(m.time.months), len(m.time.utc_hours)
     t_ant = np.zeros((len(antennas), nm, nh))
     comp_t = {}
@@ -263,11 +271,11 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     signal = toward[:, :, None, None]  # (ant, tgt, 1, 1)
     snr_gain = snr.snr_gain_db(signal, noise_t[:, None], signal[:1], noise_t[:1, None])  # (ant, tgt, m, h)
     with np.errstate(divide="ignore"):
-        noise_dbm = rx.power_dbm(t_ant, bandwidth_hz=b) + chain_gain_db  # delivered to the receiver input
+        noise_dbm = rx.power_dbm(t_ant, bandwidth_hz=b) + gain_db[:, None, None]  # at the receiver input
         loss_db = 10.0 * np.log10(noise_t / t_ant)
-    margin = noise_dbm - floor_dbm
-    advice = [[[chainmod.preamp_advice(chain, t, m.receiver.margin_target) for t in row] for row in ant_t]
-              for ant_t in t_ant]
+    margin = noise_dbm - floor_dbm[:, None, None]
+    advice = [[[chainmod.preamp_advice(ch, t, m.receiver.margin_target) for t in row] for row in ant_t]
+              for ch, ant_t in zip(chains, t_ant)]
     preamp_needed = np.array([[[a[0] for a in row] for row in ant] for ant in advice])
     preamp_where = [sorted({a[1] for row in ant for a in row if a[1]}) for ant in advice]
     weights = sc.target_weights
@@ -290,7 +298,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
             front_to_back_db=fb,
             snr_gain_db=g,
             noise_dbm=noise_dbm[k],
-            noise_by_component_dbm={n: rx.power_dbm(v[k], bandwidth_hz=b) + chain_gain_db for n, v in comp_t.items()},
+            noise_by_component_dbm={n: rx.power_dbm(v[k], bandwidth_hz=b) + gain_db[k] for n, v in comp_t.items()},
             margin_db=margin[k],
             receiver_snr_loss_db=loss_db[k],
             preamp_gain_needed_db=preamp_needed[k],
@@ -298,6 +306,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
             summary_snr_gain_db=float(np.sum(weights[:, None, None] * g) / (nm * nh)),
             worst_snr_gain_db=float(np.min(g)),
             receiver_limited=bool(np.any(margin[k] < m.receiver.margin_target)),
+            chain=_chain_dict(chains[k], floor_dbm[k]),
         ))
     reference, candidates = results[0], results[1:]
     candidates.sort(key=lambda r: -r.summary_snr_gain_db)
@@ -339,15 +348,22 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
         noise=NoiseResult(comp_levels, total[0], total[1], total[2], daytime, _power_sum(comp_levels)),
         reference=reference,
         candidates=candidates,
-        receiver={"noise_figure_db": nf_db, "noise_floor_dbm": floor_dbm, "margin_target_db": m.receiver.margin_target,
+        receiver={"noise_figure_db": nf_db, "noise_floor_dbm": scenario_floor_dbm,
+                  "margin_target_db": m.receiver.margin_target,
                   "chain_noise_figure_db": float(10 * np.log10(chain.noise_factor)), "chain_gain_db": chain_gain_db,
-                  "chain_stages": [{"name": st.name, "gain_db": float(10 * np.log10(st.gain)),
-                                    "noise_figure_db": float(10 * np.log10(st.noise_factor))} for st in chain.stages]},
+                  "chain_stages": _chain_dict(chain, scenario_floor_dbm)["stages"]},
         nside=grid.nside,
         warnings=warnings,
         figures=figures,
         local_sources=local,
     )
+
+
+def _chain_dict(ch, floor_dbm) -> dict[str, Any]:
+    return {"noise_figure_db": float(10 * np.log10(ch.noise_factor)), "gain_db": float(10 * np.log10(ch.gain)),
+            "noise_floor_dbm": float(floor_dbm),
+            "stages": [{"name": st.name, "gain_db": float(10 * np.log10(st.gain)),
+                        "noise_figure_db": float(10 * np.log10(st.noise_factor))} for st in ch.stages]}
 
 
 def _preamp_advice(needed_db, position) -> str:

@@ -175,9 +175,9 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0):
     return fig
 
 
-def _temperature_from_dbm(dbm, results):
-    """Antenna temperature [K] from a power [dBm] delivered through the chain."""
-    g_chain = results.receiver.get("chain_gain_db", 0.0)
+def _temperature_from_dbm(dbm, results, antenna):
+    """Antenna temperature [K] from a power [dBm] delivered through the antenna's chain."""
+    g_chain = antenna.chain.get("gain_db", results.receiver.get("chain_gain_db", 0.0))
     return 10 ** ((np.asarray(dbm) - g_chain) / 10) * 1e-3 / (BOLTZMANN_J_PER_K * results.bandwidth_hz)
 
 
@@ -188,16 +188,16 @@ def _snr_with_atmospheric_scaled(results, a, scale_db):
     def noise_t(ant):
         t = 0.0
         for name, dbm in ant.noise_by_component_dbm.items():
-            tk = _temperature_from_dbm(dbm, results)
+            tk = _temperature_from_dbm(dbm, results, ant)
             t = t + (tk * 10 ** (scale_db / 10) if name in atm else tk)
-        return t
+        nf = ant.chain.get("noise_figure_db", results.receiver.get("chain_noise_figure_db"))
+        return t + 290.0 * (10 ** (nf / 10) - 1)
 
-    t_chain = 290.0 * (10 ** (results.receiver.get("chain_noise_figure_db", results.receiver["noise_figure_db"]) / 10) - 1)
     w = np.array([t["weight"] for t in results.targets])
     g_a = 10 ** (np.asarray(a.gain_dbi) / 10)
     g_r = 10 ** (np.asarray(results.reference.gain_dbi) / 10)
-    n_a = noise_t(a) + t_chain
-    n_r = noise_t(results.reference) + t_chain
+    n_a = noise_t(a)
+    n_r = noise_t(results.reference)
     per_target = 10 * np.log10((g_a[:, None, None] / n_a) / (g_r[:, None, None] / n_r))
     return np.tensordot(w, per_target, axes=1)
 

@@ -307,6 +307,8 @@ class Scenario:
     targets: list[targetmod.TargetDirections]
     target_weights: np.ndarray
     p372_dir: Path | None = None
+    antenna_chains: tuple = ()
+    """Per antenna ([reference, *candidates]): its own [chain] section, or None for the scenario's."""
 
     @property
     def freq_hz(self) -> float:
@@ -373,8 +375,18 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
     cand_specs = data.get("candidate", []) if isinstance(data, dict) else []
     specs = [("reference", ref_spec)] + [(f"candidate[{i}]", s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])]
     antennas: list[Antenna] = []
+    chains: list[ChainSection | None] = []
     names = set()
     for where, spec in specs:
+        own_chain = None
+        if isinstance(spec, dict) and "chain" in spec:
+            spec = dict(spec)
+            raw_chain = spec.pop("chain")
+            try:
+                own_chain = ChainSection.model_validate(raw_chain)
+            except ValidationError as exc:
+                problems.extend(pydantic_problems(exc, f"{where}.chain"))
+                continue
         try:
             spec2 = _inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
             params = validate_spec(spec2, where)
@@ -394,6 +406,7 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
                 problems.append((f"{where}.name", f"name {params.name!r} is used twice"))
             names.add(params.name)
         antennas.append(ant)
+        chains.append(own_chain)
 
     tgts = []
     if model is not None:
@@ -422,6 +435,7 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
         targets=tgts,
         target_weights=weights / weights.sum(),
         p372_dir=data_dir,
+        antenna_chains=tuple(chains),
     )
 
 
