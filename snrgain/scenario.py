@@ -462,7 +462,9 @@ def _p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
 
 
 def _read(source) -> tuple[str, str, Path | None]:
-    if isinstance(source, Path) or (isinstance(source, str) and "\n" not in source and source.endswith(".toml")):
+    looks_like_path = isinstance(source, str) and "\n" not in source and "=" not in source and (
+        source.endswith(".toml") or Path(source).exists())
+    if isinstance(source, Path) or looks_like_path:
         path = Path(source)
         try:
             return path.read_text(encoding="utf-8"), str(path), path.resolve().parent

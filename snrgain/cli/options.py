@@ -9,6 +9,8 @@ from __future__ import annotations
 import functools
 import sys
 
+from pathlib import Path
+
 import click
 
 from snrgain.antennas import SpecError
@@ -18,7 +20,7 @@ from snrgain.units import QuantityError
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
 
-scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=str))
+scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=Path))
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
 nside_option = click.option(
     "--nside", type=click.Choice(["8", "16", "32", "64", "128"]), default=None,
@@ -38,6 +40,11 @@ def handle_errors(fn):
     def wrapper(*args, **kwargs):
         try:
             return fn(*args, **kwargs)
+        except BrokenPipeError:  # output piped into a reader that stopped early (e.g. head): leave quietly
+            import os
+
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+            sys.exit(EXIT_FAILURE)
         except ScenarioError as exc:
             n = len(exc.problems)
             fail(f"invalid scenario ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)
