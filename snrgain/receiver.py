@@ -4,8 +4,8 @@ A receiver of noise figure F adds T_rx = T0 (F - 1) [K] (the definition of
 noise figure, T0 = 290 K; e.g. H. T. Friis, "Noise figures of radio
 receivers", Proc. IRE 32(7), 419 (1944)).  Its noise floor, what it shows
 with a matched load at T0 on its input, is k T0 b F [W] in bandwidth b.  A
-measured floor in the band's bandwidth gives F back.  The full chain (feed
-line, transformer, preamplifier) builds on this.
+measured floor in the band's bandwidth gives F back.  The chain (feed
+line, transformer, preamplifier) is cascaded in snrgain.chain.
 """
 
 from __future__ import annotations
@@ -13,11 +13,6 @@ from __future__ import annotations
 import numpy as np
 
 from noisemodels.p372 import BOLTZMANN_J_PER_K, T0_K
-
-
-def receiver_temperature_k(noise_figure_db):
-    """Noise temperature [K] added by a receiver of noise figure [dB]: T0 (F - 1)."""
-    return T0_K * (10.0 ** (np.asarray(noise_figure_db, dtype=float) / 10.0) - 1.0)
 
 
 def noise_floor_dbm(noise_figure_db, *, bandwidth_hz):
