@@ -135,18 +135,23 @@ GroundField = Annotated[GroundInput, BeforeValidator(ground_name_check)]
 
 
 
-def _point(value):
-    """A point on the site plan: [east, north], each a length ("12 m", "40 ft") or a bare number of metres."""
-    if not isinstance(value, (list, tuple)) or len(value) != 2:
-        raise ValueError(f"expected a point [east, north], e.g. [\"12 m\", \"-30 ft\"] or [12, -9.1] (metres); got {value!r}")
+def lengths(value, n: int, *, what: str, example: str, limit_m: float) -> tuple[float, ...]:
+    """n lengths, each written with a unit ("12 m", "40 ft") or as a bare number of metres, within limit_m."""
+    if not isinstance(value, (list, tuple)) or len(value) != n:
+        raise ValueError(f"expected {what}, e.g. {example} (bare numbers are metres); got {value!r}")
     out = []
     for v in value:
         if isinstance(v, bool):
             raise ValueError(f"expected a length, got {v!r}")
         out.append(float(v) if isinstance(v, (int, float)) else parse_quantity(v, "length"))
-    if not all(np.isfinite(out)) or max(abs(x) for x in out) > 10_000:
-        raise ValueError(f"a site-plan point must lie within 10 km of the origin; got {value!r}")
-    return (out[0], out[1])
+    if not all(np.isfinite(out)) or max(abs(x) for x in out) > limit_m:
+        raise ValueError(f"{what} must lie within {limit_m / 1e3:g} km of the origin; got {value!r}")
+    return tuple(out)
+
+
+def _point(value):
+    """A point on the site plan: [east, north]."""
+    return lengths(value, 2, what="a point [east, north]", example='["12 m", "-30 ft"] or [12, -9.1]', limit_m=10_000)
 
 
 PlanPoint = Annotated[tuple[float, float], BeforeValidator(_point)]

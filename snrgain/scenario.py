@@ -18,7 +18,8 @@ import numpy as np
 from pydantic import Field, ValidationError, field_validator, model_validator
 
 from snrgain import targets as targetmod
-from snrgain.antennas import FAMILIES, Antenna, SpecError, validate_spec
+from snrgain.antennas import FAMILIES, Antenna, SpecError
+from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import pydantic_problems
 from snrgain.fields import (
     Bearing,
@@ -389,16 +390,11 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
                 continue
         try:
             spec2 = _inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
-            params = validate_spec(spec2, where)
-            ant = FAMILIES[params.family].build(params)
-            if freq is not None:
-                ant.check_frequency(freq)
+            ant = build_antenna(spec2, where, freq_hz=freq)
         except SpecError as exc:
             problems.extend(exc.problems)
             continue
-        except ValueError as exc:
-            problems.append((where, str(exc)))
-            continue
+        params = ant.params
         if where != "reference":
             if not params.name:
                 problems.append((f"{where}.name", "every candidate needs a name"))

@@ -37,7 +37,7 @@ from typing import Any, Literal
 import numpy as np
 from pydantic import Field, model_validator
 
-from snrgain.antennas.base import Antenna, AntennaParams, FAMILIES, SpecError, register, validate_spec
+from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, register
 from snrgain.fields import Bearing, GroundField, PlanPoint, quantity
 from snrgain.ground import C_M_PER_S
 from snrgain.units import parse_quantity
@@ -120,8 +120,7 @@ class Array(Antenna):
                 if fam is not None and "ground" in fam.params.model_fields:
                     spec["ground"] = params.ground
             try:
-                el_params = validate_spec(spec, where)
-                el = FAMILIES[el_params.family].build(el_params)
+                el = build(spec, where)
                 if params.steering == "auto" and any(k in raw for k in ("delay", "delay_line", "phase")):
                     raise ValueError(f"{where}: delays and phases are set by steering = 'auto'")
                 self.weights.append(_weights_from(raw, where))

@@ -100,6 +100,28 @@ class Antenna(ABC):
         return out
 
 
+class TransformerFeed:
+    """Matching to the coax through a transformer: for antennas with ``feed_point_impedance(freq_hz)`` and
+    params ``turns_ratio`` ("auto" or a number, antenna side over coax side) and ``coax`` [ohm]."""
+
+    def turns_ratio(self, freq_hz: float) -> float:
+        """Transformer turns ratio: as given, or sqrt(|Z_feed| / Z_coax) for 'auto'."""
+        n = self.params.turns_ratio
+        if n == "auto":
+            return float(np.sqrt(abs(self.feed_point_impedance(freq_hz)) / self.params.coax))
+        return float(n)
+
+    def receiver_load_ohm(self, freq_hz: float) -> float:
+        """The receiver's coax impedance referred through the transformer, n^2 Z_coax [ohm]."""
+        return self.turns_ratio(freq_hz) ** 2 * self.params.coax
+
+    def mismatch(self, freq_hz: float) -> float:
+        """Mismatch factor between the feed-point impedance and the transformer's load [-]."""
+        from snrgain.lines import mismatch_factor
+
+        return mismatch_factor(self.feed_point_impedance(freq_hz), self.receiver_load_ohm(freq_hz))
+
+
 def _radians(azimuth_deg, elevation_deg):
     az = np.radians(np.asarray(azimuth_deg, dtype=float))
     el = np.radians(np.asarray(elevation_deg, dtype=float))
@@ -180,16 +202,27 @@ def validate_spec(spec: dict, prefix: str = "") -> AntennaParams:
         raise SpecError(pydantic_problems(exc, prefix)) from None
 
 
+def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None) -> Antenna:
+    """Validate and build an antenna, checking it at ``freq_hz`` if given.
+
+    Raises :class:`SpecError` naming every bad field, paths prefixed by ``prefix``.
+    """
+    params = validate_spec(spec, prefix)
+    try:
+        ant = FAMILIES[params.family].build(params)
+        if freq_hz is not None:
+            ant.check_frequency(freq_hz)
+        return ant
+    except SpecError:
+        raise
+    except (ValueError, OSError) as exc:
+        raise SpecError([(prefix, str(exc))]) from None
+
+
 def from_spec(spec: dict) -> Antenna:
     """Build an antenna from a plain dict, e.g. ``{"family": "vertical", "height": "18 m"}``.
 
     Quantities carry units as in scenario files.  Raises :class:`SpecError`
     (a ValueError) naming every bad field.
     """
-    params = validate_spec(spec)
-    try:
-        return FAMILIES[params.family].build(params)
-    except SpecError:
-        raise
-    except (ValueError, OSError) as exc:
-        raise SpecError([("", str(exc))]) from None
+    return build(spec)

@@ -64,7 +64,7 @@ import numpy as np
 from pydantic import BeforeValidator, Field, model_validator
 
 from snrgain import lines
-from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.fields import Bearing, GroundField, make_ground, quantity
 from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 
@@ -197,7 +197,7 @@ def _safe_expint(z, length):
     return out / z
 
 
-class LongWire(Antenna):
+class LongWire(TransformerFeed, Antenna):
     """Shared machinery of the long-wire families."""
 
     has_far_lead = True
@@ -254,21 +254,6 @@ class LongWire(Antenna):
         """Impedance the transformer's primary sees: the line's input impedance plus the feed ground rod [ohm]."""
         ln = self.line(freq_hz)
         return lines.input_impedance(ln, length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz)) + self.feed_rod_ohm
-
-    def turns_ratio(self, freq_hz: float) -> float:
-        """Transformer turns ratio (antenna side over coax side): as given, or the match for 'auto'."""
-        n = self.params.turns_ratio
-        if n == "auto":
-            return float(np.sqrt(abs(self.feed_point_impedance(freq_hz)) / self.params.coax))
-        return float(n)
-
-    def receiver_load_ohm(self, freq_hz: float) -> float:
-        """The receiver's coax impedance referred through the transformer, n^2 Z_coax [ohm]."""
-        return self.turns_ratio(freq_hz) ** 2 * self.params.coax
-
-    def mismatch(self, freq_hz: float) -> float:
-        """Mismatch factor between the feed-point impedance and the transformer's load [-]."""
-        return lines.mismatch_factor(self.feed_point_impedance(freq_hz), self.receiver_load_ohm(freq_hz))
 
     def check_frequency(self, freq_hz):
         lo, hi = FREQ_RANGE_HZ

@@ -35,27 +35,18 @@ from pydantic import BeforeValidator, Field, model_validator
 from scipy.interpolate import RegularGridInterpolator
 
 from snrgain import lines
-from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
-from snrgain.fields import GroundField, StrictModel, make_ground, quantity
+from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
+from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity
 from snrgain.ground import C_M_PER_S
-from snrgain.units import parse_quantity
 
 MIN_LOSSY_HEIGHT_WAVELENGTHS = 0.05
 
 
 def _xyz(value):
-    if not isinstance(value, (list, tuple)) or len(value) != 3:
-        raise ValueError(f"expected a point [east, north, up], e.g. [0, 0, \"12 m\"]; got {value!r}")
-    out = []
-    for v in value:
-        if isinstance(v, bool):
-            raise ValueError(f"expected a length, got {v!r}")
-        out.append(float(v) if isinstance(v, (int, float)) else parse_quantity(v, "length"))
+    out = lengths(value, 3, what="a point [east, north, up]", example='[0, 0, "12 m"]', limit_m=5000)
     if out[2] < 0:
         raise ValueError(f"a wire cannot go below the ground (up = {out[2]:g} m)")
-    if max(abs(x) for x in out) > 5000:
-        raise ValueError(f"points must lie within 5 km; got {value!r}")
-    return tuple(out)
+    return out
 
 
 Point3 = Annotated[tuple[float, float, float], BeforeValidator(_xyz)]
@@ -122,7 +113,7 @@ def _engine():
 
 
 @register("wire-structure", WireStructureParams, "your own wires, feed and loads, solved by NEC-2 (PyNEC extra)")
-class WireStructure(Antenna):
+class WireStructure(TransformerFeed, Antenna):
     """See the module docstring."""
 
     def __init__(self, params: WireStructureParams):
@@ -208,16 +199,6 @@ class WireStructure(Antenna):
 
     def feed_point_impedance(self, freq_hz: float) -> complex:
         return self._solve(freq_hz)["z_in"]
-
-    def turns_ratio(self, freq_hz: float) -> float:
-        n = self.params.turns_ratio
-        if n == "auto":
-            return float(np.sqrt(abs(self.feed_point_impedance(freq_hz)) / self.params.coax))
-        return float(n)
-
-    def mismatch(self, freq_hz: float) -> float:
-        n = self.turns_ratio(freq_hz)
-        return lines.mismatch_factor(self.feed_point_impedance(freq_hz), n * n * self.params.coax)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         sol = self._solve(freq_hz)

@@ -10,7 +10,7 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, readings_preamble, scenario_copy_options
+from snrgain.cli.options import handle_errors, read_toml, readings_preamble, scenario_copy_options
 
 EXAMPLE = """\
 # Readings of a laid wire, taken at its feed end with an antenna analyser.
@@ -70,15 +70,7 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
                          write_to=write_to):
         return
     path = Path(readings)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise ValueError(f"{path}: cannot read ({exc.strerror or exc})") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise ValueError(f"{path}: not valid TOML: {exc}") from None
-    unknown = set(data) - {"wire", "open_short", "resonance"}
-    if unknown:
-        raise ValueError(f"{path}: unknown section(s) {sorted(unknown)}; allowed: wire, open_short, resonance")
+    data = read_toml(path, allowed={"wire", "open_short", "resonance"})
     if "wire" not in data:
         raise ValueError(f"{path}: section [wire] is missing (the wire as built; see --example)")
     spec = dict(data["wire"])

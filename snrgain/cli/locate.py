@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 import json
-import tomllib
 from pathlib import Path
 
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, readings_preamble, scenario_copy_options
+from snrgain.cli.options import handle_errors, read_toml, readings_preamble, scenario_copy_options
 
 EXAMPLE = """\
 # Noise readings for snrgain locate: the same noise read on known antennas.
@@ -62,15 +61,7 @@ def load_readings(path: Path):
     from snrgain.locate import Reading
     from snrgain.units import parse_power_dbm, parse_quantity
 
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise ValueError(f"{path}: cannot read ({exc.strerror or exc})") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise ValueError(f"{path}: not valid TOML: {exc}") from None
-    unknown = set(data) - {"frequency", "bandwidth", "ground", "antenna", "reading"}
-    if unknown:
-        raise ValueError(f"{path}: unknown key(s) {sorted(unknown)}; allowed: frequency, bandwidth, ground, antenna, reading")
+    data = read_toml(path, allowed={"frequency", "bandwidth", "ground", "antenna", "reading"})
     for key in ("frequency", "bandwidth", "antenna", "reading"):
         if key not in data:
             raise ValueError(f"{path}: {key} is missing (see --example)")

@@ -89,3 +89,19 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
     if (scenario is None) != (write_to is None):
         raise click.UsageError("--scenario and --write go together")
     return False
+
+
+def read_toml(path: Path, *, allowed: set[str]) -> dict:
+    """A readings file as a dict; errors name the file (cannot read, not TOML, unknown sections)."""
+    import tomllib
+
+    try:
+        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
+    except OSError as exc:
+        raise ValueError(f"{path}: cannot read ({exc.strerror or exc})") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise ValueError(f"{path}: not valid TOML: {exc}") from None
+    unknown = set(data) - allowed
+    if unknown:
+        raise ValueError(f"{path}: unknown key(s) {sorted(unknown)}; allowed: {', '.join(sorted(allowed))}")
+    return data
