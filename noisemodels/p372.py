@@ -183,6 +183,17 @@ def combine(levels: list[NoiseLevel]) -> NoiseLevel:
     return NoiseLevel(0.5 * (f_upper + f_lower), d_upper, d_lower)
 
 
+def combine_present(levels: list[NoiseLevel]) -> NoiseLevel:
+    """Section 8 combination of the components present: a screened one (Fa = -inf) adds nothing.
+
+    With none present, Fa is -inf.
+    """
+    present = [lv for lv in levels if np.isfinite(np.asarray(lv.fa_db))]
+    if not present:
+        return NoiseLevel(-np.inf, 0.0, 0.0)
+    return combine(present)
+
+
 def atmospheric(latitude_deg, longitude_deg, *, month: int, freq_hz, time_block=None, utc_hour=None,
                 data_dir=None) -> NoiseLevel:
     """Median atmospheric noise FaA and its decile deviations from P.372's numerical maps.

@@ -20,9 +20,9 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from noisemodels import p372
+from noisemodels.hops import EARTH_RADIUS_M
 from noisemodels.sphere import Directions, angular_distance_rad
 
-EARTH_RADIUS_M = 6_371_000.0
 
 
 def reference_monopole_gain(elevation_rad):
@@ -253,7 +253,4 @@ def compact_component(
 
 def total_level(components: list[SkyComponent]) -> p372.NoiseLevel:
     """Fa and deciles of the sum of components on the reference monopole (P.372 Section 8)."""
-    levels = [c.level for c in components if np.isfinite(np.asarray(c.level.fa_db))]
-    if not levels:
-        return p372.NoiseLevel(-np.inf, 0.0, 0.0)
-    return p372.combine(levels)
+    return p372.combine_present([c.level for c in components])

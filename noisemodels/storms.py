@@ -37,10 +37,10 @@ from __future__ import annotations
 import numpy as np
 
 from noisemodels import p372, solar
+from noisemodels.hops import EARTH_RADIUS_M, fewest_hops, hop_elevation_rad
 from noisemodels.sky import SkyComponent, normalised_component
 from noisemodels.sphere import Directions, to_healpy_angles
 
-EARTH_RADIUS_M = 6_371_000.0
 MIN_ELEVATION_RAD = np.radians(3.0)
 NIGHT_LOSS_DB_PER_HOP = 1.0
 GROUND_LOSS_DB_PER_REFLECTION = 3.0
@@ -64,12 +64,9 @@ def hop_absorption_db(freq_mhz, elevation_rad, solar_zenith_rad):
 
 
 def _hops_and_elevation(d_m, layer_height_m):
-    a = np.arccos(EARTH_RADIUS_M * np.cos(MIN_ELEVATION_RAD) / (EARTH_RADIUS_M + layer_height_m))
-    max_hop = 2.0 * EARTH_RADIUS_M * (a - MIN_ELEVATION_RAD)
-    n = np.maximum(1, np.ceil(d_m / max_hop)).astype(int)
-    theta = d_m / (2.0 * n * EARTH_RADIUS_M)
-    el = np.arctan2(np.cos(theta) - EARTH_RADIUS_M / (EARTH_RADIUS_M + layer_height_m), np.sin(theta))
-    return n, el
+    n = np.atleast_1d(fewest_hops(d_m, layer_height_m=layer_height_m, min_elevation_rad=MIN_ELEVATION_RAD))
+    n = n.reshape(np.shape(d_m)) if np.ndim(d_m) else n[0]
+    return n, hop_elevation_rad(d_m, n, layer_height_m=layer_height_m)
 
 
 def arrival_samples(

@@ -18,13 +18,19 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import re
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
 
 import numpy as np
 from scipy.optimize import least_squares
 
 from snrgain import lines
 from snrgain.ground import C_M_PER_S, Ground
+from snrgain.readings import parse_impedance, read_toml
+from snrgain.units import parse_quantity
 
 DEFAULT_VF_UNCERTAINTY = 0.02
 """Standard uncertainty of a measured velocity factor [-] (assumed)."""
@@ -181,3 +187,139 @@ def fit_ground(model_line, measurements: list[dict], *, permittivity: float | No
     eps = permittivity if permittivity is not None else float(best.x[1])
     eps_sd = 0.0 if permittivity is not None else float(np.sqrt(cov[1, 1]))
     return GroundFit(float(10 ** best.x[0]), float(10 ** log_sigma_sd), eps, eps_sd, rms, permittivity is not None)
+
+
+EXAMPLE = """\
+# Readings of a laid wire, taken at its feed end with an antenna analyser.
+[wire]                      # the wire as built: any keys of its family
+family = "bog"
+length = "250 ft"
+gauge = 16
+
+[[open_short]]              # far end open, then shorted to its ground rod
+frequency = "1.83 MHz"
+open = [95.0, -210.0]       # R, X in ohm (or "95-210j")
+short = [160.0, 240.0]
+
+[[resonance]]               # optional: first quarter-wave resonance, far end open
+frequency = "0.72 MHz"
+"""
+
+
+@dataclass
+class WireReadings:
+    """A readings file: the wire as built, open/short pairs and quarter-wave resonances."""
+
+    antenna: Any
+    """The wire (a long-wire family antenna) as built."""
+    open_short: list[OpenShort] = field(default_factory=list)
+    resonance_hz: list[float] = field(default_factory=list)
+
+
+def load_readings(path: str | Path) -> WireReadings:
+    """Read a calibration readings file (format: :data:`EXAMPLE`); errors name the file and the entry."""
+    from snrgain.antennas import from_spec
+
+    path = Path(path)
+    data = read_toml(path, allowed={"wire", "open_short", "resonance"})
+    if "wire" not in data:
+        raise ValueError(f"{path}: section [wire] is missing (the wire as built; see --example)")
+    spec = dict(data["wire"])
+    spec.setdefault("family", "bog")
+    ant = from_spec(spec)
+    if not hasattr(ant, "computed_line"):
+        raise ValueError(f"{path}: wire.family: calibration needs a long-wire family (beverage, unterminated, bog, "
+                         f"two-wire), not {ant.family!r}")
+    out = WireReadings(ant)
+    for i, r in enumerate(data.get("open_short", [])):
+        extra = set(r) - {"frequency", "open", "short"}
+        if extra:
+            raise ValueError(f"{path}: open_short[{i}]: unknown key(s) {sorted(extra)}")
+        try:
+            f = parse_quantity(r["frequency"], "frequency")
+            out.open_short.append(OpenShort(f, parse_impedance(r["open"], f"open_short[{i}].open"),
+                                            parse_impedance(r["short"], f"open_short[{i}].short")))
+        except KeyError as exc:
+            raise ValueError(f"{path}: open_short[{i}]: key {exc.args[0]!r} is missing") from None
+    for i, r in enumerate(data.get("resonance", [])):
+        if set(r) != {"frequency"}:
+            raise ValueError(f"{path}: resonance[{i}]: give only frequency")
+        out.resonance_hz.append(parse_quantity(r["frequency"], "frequency"))
+    if not out.open_short and not out.resonance_hz:
+        raise ValueError(f"{path}: no readings; add [[open_short]] or [[resonance]] entries (see --example)")
+    return out
+
+
+@dataclass
+class Calibration:
+    """What the readings say about a wire and its ground."""
+
+    antenna: Any
+    constants: list[lines.LineConstants]
+    """Line constants from each open/short pair (by frequency)."""
+    resonances: list[dict]
+    """{"freq_hz", "velocity_factor"} per quarter-wave resonance."""
+    fit: GroundFit
+    suggested_termination_ohm: float | None
+    suggested_turns_ratio: float | None
+
+    def as_dict(self) -> dict:
+        """JSON-ready (SI units in the keys)."""
+        f = self.fit
+        out = {
+            "wire": self.antenna.describe(),
+            "open_short": [ln.as_dict() for ln in self.constants],
+            "resonance": self.resonances,
+            "fitted_ground": {"conductivity_s_per_m": f.conductivity_s_per_m,
+                              "conductivity_uncertainty_factor": f.conductivity_factor,
+                              "permittivity": f.permittivity, "permittivity_sigma": f.permittivity_sigma,
+                              "permittivity_fixed": f.fixed_permittivity, "residual_rms": f.residual_rms,
+                              "scenario_value": f.scenario_value()},
+        }
+        if self.suggested_termination_ohm is not None:
+            out["suggested_termination_ohm"] = self.suggested_termination_ohm
+            out["suggested_turns_ratio"] = self.suggested_turns_ratio
+        return out
+
+
+def calibrate(readings: WireReadings, *, expected_velocity_factor: float = 0.8,
+              permittivity: float | None = None) -> Calibration:
+    """Line constants from the readings, the ground fitted to them, and the termination and transformer they
+    suggest (|Z0| less the far rod; sqrt((|Z0| + feed rod) / Z_coax))."""
+    ant = readings.antenna
+    constants = (line_from_open_short(readings.open_short, length_m=ant.length_m,
+                                      expected_velocity_factor=expected_velocity_factor)
+                 if readings.open_short else [])
+    measured = [{"freq_hz": ln.freq_hz, "velocity_factor": ln.velocity_factor,
+                 "attenuation_db_per_100m": ln.attenuation_db_per_100m} for ln in constants]
+    resonances = []
+    for f in readings.resonance_hz:
+        vf = vf_from_quarter_wave(ant.length_m, f)
+        resonances.append({"freq_hz": f, "velocity_factor": vf})
+        measured.append({"freq_hz": f, "velocity_factor": vf})
+    fit = fit_ground(ant.computed_line, measured, permittivity=permittivity)
+    term = turns = None
+    if constants:
+        z0 = abs(constants[0].z0)
+        term = max(z0 - getattr(ant.params, "far_ground", 0.0), 0.0)
+        turns = float(np.sqrt((z0 + ant.params.feed_ground) / ant.params.coax))
+    return Calibration(ant, constants, resonances, fit, term, turns)
+
+
+def with_ground(text: str, value: str) -> str:
+    """Scenario TOML text with [site]'s ground set to ``value`` (replacing a ground line or adding one)."""
+    lines_ = text.splitlines(keepends=True)
+    start = next((i for i, ln in enumerate(lines_) if ln.strip() == "[site]"), None)
+    if start is None:
+        raise ValueError("the scenario has no [site] section")
+    end = next((i for i in range(start + 1, len(lines_)) if lines_[i].lstrip().startswith("[")), len(lines_))
+    new = f"ground = {value}   # fitted by snrgain calibrate\n"
+    for i in range(start + 1, end):
+        if re.match(r"\s*ground\s*=", lines_[i]):
+            lines_[i] = new
+            break
+    else:
+        lines_.insert(start + 1, new)
+    out = "".join(lines_)
+    tomllib.loads(out)  # still valid TOML
+    return out

@@ -210,11 +210,6 @@ def preamp_advice(chain: Chain, antenna_temperature_k: float, margin_db: float) 
     return np.nan, None
 
 
-def from_scenario(model, *, freq_hz: float, receiver_noise_figure_db: float) -> Chain:
-    """The chain of a validated scenario: transformer, feed line, preamplifier, receiver."""
-    return from_section(model.chain, freq_hz=freq_hz, receiver_noise_figure_db=receiver_noise_figure_db)
-
-
 def from_section(c, *, freq_hz: float, receiver_noise_figure_db: float) -> Chain:
     """The chain of a validated [chain] section (the scenario's, or an antenna's own ``chain`` table)."""
     stages = [passive("transformer", c.transformer_loss)]
@@ -240,3 +235,51 @@ def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
     idx = len(st) - 1 if position == "receiver" else 1
     st.insert(idx, amplifier("suggested preamplifier", gain_db=0.0, noise_figure_db=SUGGESTED_PREAMP_NOISE_FIGURE_DB))
     return Chain(tuple(st), idx)
+
+
+@dataclass(frozen=True)
+class NoiseBudget:
+    """One antenna's noise through its chain, per month and hour (arrays (months, hours)).
+
+    noise_dbm : external noise delivered to the receiver input in the bandwidth [dBm]
+    floor_dbm : the chain's own noise floor at the receiver input, k T0 b F G [dBm]
+    margin_db : noise_dbm minus floor_dbm [dB]
+    receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
+    preamp_gain_needed_db : preamplifier gain that brings the margin to the target; 0 if met, NaN if none can [dB]
+    preamp_position : "receiver", "antenna", "as placed" (see :func:`preamp_advice`), or None
+    """
+
+    noise_dbm: np.ndarray
+    floor_dbm: float
+    margin_db: np.ndarray
+    receiver_snr_loss_db: np.ndarray
+    preamp_gain_needed_db: np.ndarray
+    preamp_position: str | None
+
+
+def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, margin_target_db: float) -> NoiseBudget:
+    """The external noise against the chain's floor, and the preamplifier that would meet the margin target."""
+    from snrgain.receiver import noise_floor_dbm, power_dbm
+
+    t_a = np.asarray(antenna_temperature_k, dtype=float)
+    gain_db = 10.0 * np.log10(chain.gain)
+    floor = float(noise_floor_dbm(10.0 * np.log10(chain.noise_factor), bandwidth_hz=bandwidth_hz)) + gain_db
+    with np.errstate(divide="ignore"):
+        noise = power_dbm(t_a, bandwidth_hz=bandwidth_hz) + gain_db
+        loss = 10.0 * np.log10((t_a + chain.temperature_k) / t_a)
+    advice = [preamp_advice(chain, float(t), margin_target_db) for t in t_a.ravel()]
+    needed = np.array([a[0] for a in advice], dtype=float).reshape(t_a.shape)
+    where = sorted({a[1] for a in advice if a[1]})
+    return NoiseBudget(noise, floor, noise - floor, loss, needed, where[-1] if where else None)
+
+
+def describe(chain: Chain, *, bandwidth_hz: float) -> dict:
+    """The chain for output: noise figure, gain, floor at the receiver input, stages (dB, SI in the keys)."""
+    from snrgain.receiver import noise_floor_dbm
+
+    nf_db = float(10 * np.log10(chain.noise_factor))
+    gain_db = float(10 * np.log10(chain.gain))
+    return {"noise_figure_db": nf_db, "gain_db": gain_db,
+            "noise_floor_dbm": float(noise_floor_dbm(nf_db, bandwidth_hz=bandwidth_hz)) + gain_db,
+            "stages": [{"name": st.name, "gain_db": float(10 * np.log10(st.gain)),
+                        "noise_figure_db": float(10 * np.log10(st.noise_factor))} for st in chain.stages]}

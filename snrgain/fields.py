@@ -3,6 +3,11 @@
 Each quantity field accepts what users write ("400 ft", "5 mS/m") and holds
 the SI float.  Range checks run on the SI value but report in the user's
 terms, so a message reads: "must be > 0 m; got '-3 ft'".
+
+Validated with the context ``{"si": True}`` (see :data:`SI_CONTEXT`), a
+quantity field also takes a bare number as its SI value (metres, hertz,
+radians, ...), so code can build the same models from SI floats with the same
+range checks and no string parsing.
 """
 
 from __future__ import annotations
@@ -10,10 +15,18 @@ from __future__ import annotations
 from typing import Annotated, Any
 
 import numpy as np
-from pydantic import BaseModel, BeforeValidator, ConfigDict, Field
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, InstanceOf, ValidationInfo, model_validator
 
 from snrgain import ground as groundmod
-from snrgain.units import DIMENSIONS, parse_db, parse_power_dbm, parse_quantity
+from snrgain import lines
+from snrgain.units import DIMENSIONS, parse_attenuation_db_per_100m, parse_db, parse_power_dbm, parse_quantity
+
+SI_CONTEXT = {"si": True}
+"""Validation context in which bare numbers in quantity fields are SI values."""
+
+
+def _si(info: ValidationInfo | None) -> bool:
+    return bool(info is not None and isinstance(info.context, dict) and info.context.get("si"))
 
 _SI_SYMBOL = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg", "time": "s"}
 
@@ -31,8 +44,13 @@ def quantity(dimension: str, *, gt=None, ge=None, lt=None, le=None):
     if dimension not in DIMENSIONS:
         raise KeyError(dimension)
 
-    def check(value):
-        x = parse_quantity(value, dimension)
+    def check(value, info: ValidationInfo):
+        if _si(info) and isinstance(value, (int, float)) and not isinstance(value, bool):
+            x = float(value)
+            if not np.isfinite(x):
+                raise ValueError(f"expected a finite {dimension}, got {value!r}")
+        else:
+            x = parse_quantity(value, dimension)
         bounds = []
         ok = True
         if gt is not None:
@@ -72,6 +90,10 @@ PowerDbm = Annotated[float, BeforeValidator(_power)]
 """A received power: "-95 dBm", "S7", "S9+10"."""
 
 
+Attenuation = Annotated[float, BeforeValidator(parse_attenuation_db_per_100m)]
+"""Attenuation of a line [dB/100 m]: '2 dB/100m', '0.6 dB/100ft', '0.02 dB/m' or a bare number of dB per 100 m."""
+
+
 def _degrees_number(lo, hi, what):
     def check(value):
         if isinstance(value, bool) or not isinstance(value, (int, float, str)):
@@ -100,6 +122,37 @@ class StrictModel(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True)
 
 
+class WireSize(StrictModel):
+    """The wire's size: AWG gauge or diameter (default AWG 14).  Mixed into the families made of wire."""
+
+    gauge: int | None = Field(default=None, ge=-3, le=40, description="AWG gauge")
+    diameter: quantity("length", gt=0.0, le=0.02) | None = None
+
+    @model_validator(mode="after")
+    def _one_size(self):
+        if self.gauge is not None and self.diameter is not None:
+            raise ValueError("give gauge (AWG) or diameter, not both")
+        return self
+
+    @property
+    def radius_m(self) -> float:
+        """Wire radius [m]: half the diameter, or of the gauge's diameter (ASTM B258)."""
+        return wire_radius_m(gauge=self.gauge, diameter_m=self.diameter)
+
+
+def wire_radius_m(*, gauge: int | None = None, diameter_m: float | None = None) -> float:
+    """Radius [m] of a wire given by its diameter [m] or AWG gauge; AWG 14 when neither is given."""
+    if gauge is not None and diameter_m is not None:
+        raise ValueError("give gauge (AWG) or diameter, not both")
+    if diameter_m is not None:
+        return diameter_m / 2
+    return lines.awg_diameter_m(DEFAULT_GAUGE if gauge is None else gauge) / 2
+
+
+DEFAULT_GAUGE = 14
+"""AWG gauge of a wire given neither gauge nor diameter (14 AWG, 1.63 mm: common for receiving wires)."""
+
+
 class GroundConstants(StrictModel):
     """A ground given by its constants."""
 
@@ -107,7 +160,7 @@ class GroundConstants(StrictModel):
     permittivity: float = Field(ge=1.0, le=100.0, description="relative permittivity [-]")
 
 
-GroundInput = str | GroundConstants
+GroundInput = str | GroundConstants | InstanceOf[groundmod.Ground]
 
 
 def make_ground(spec: Any) -> groundmod.Ground | None:

@@ -24,15 +24,107 @@ ambiguity).  Levels are reported as Fa on P.372's reference monopole.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 from scipy.optimize import least_squares
 
 from noisemodels import p372, sky
 from noisemodels.sphere import upper_hemisphere
+from snrgain.readings import read_toml
 from snrgain.receiver import power_dbm
+from snrgain.units import parse_power_dbm, parse_quantity
 
 MAX_BEARING_SIGMA_DEG = 45.0
+
+EXAMPLE = """\
+# Noise readings for snrgain locate: the same noise read on known antennas.
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+ground = "average"
+
+[antenna.loop]               # a small loop turned by hand between readings
+family = "small-loop"
+width = "1 m"
+loop_height = "1 m"
+height = "1.5 m"
+
+[antenna.vertical]
+family = "vertical"
+height = "18 m"
+
+[[reading]]                  # invented readings, made for this example
+antenna = "loop"
+bearing = 0                  # the loop's plane points this way for this reading
+level = "-118.8 dBm"         # or S-units: "S7"
+[[reading]]
+antenna = "loop"
+bearing = 30
+level = "-115.4 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 60
+level = "-111.9 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 90
+level = "-112.8 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 120
+level = "-115.7 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 150
+level = "-122.9 dBm"
+[[reading]]
+antenna = "vertical"
+level = "S7"
+"""
+
+
+@dataclass(frozen=True)
+class NoiseReadings:
+    """A readings file: frequency [Hz], bandwidth [Hz] and the readings."""
+
+    freq_hz: float
+    bandwidth_hz: float
+    readings: list
+
+
+def load_readings(path: str | Path) -> NoiseReadings:
+    """Read a noise readings file (format: :data:`EXAMPLE`); errors name the file and the reading."""
+    from snrgain.antennas import from_spec
+
+    data = read_toml(path, allowed={"frequency", "bandwidth", "ground", "antenna", "reading"})
+    for key in ("frequency", "bandwidth", "antenna", "reading"):
+        if key not in data:
+            raise ValueError(f"{path}: {key} is missing (see --example)")
+    f = parse_quantity(data["frequency"], "frequency")
+    b = parse_quantity(data["bandwidth"], "frequency")
+    ground = data.get("ground", "average")
+    antennas = data["antenna"]
+    readings = []
+    for i, r in enumerate(data["reading"]):
+        where = f"{path}: reading[{i}]"
+        extra = set(r) - {"antenna", "bearing", "level"}
+        if extra:
+            raise ValueError(f"{where}: unknown key(s) {sorted(extra)}; allowed: antenna, bearing, level")
+        name = r.get("antenna")
+        if name not in antennas:
+            raise ValueError(f"{where}.antenna: {name!r} is not one of the [antenna.*] tables {sorted(antennas)}")
+        spec = {"ground": ground, **antennas[name]}
+        if "bearing" in r:
+            spec["bearing"] = r["bearing"]
+        try:
+            level = parse_power_dbm(r.get("level"))
+        except ValueError as exc:
+            raise ValueError(f"{where}.level: {exc}") from None
+        ant = from_spec(spec)
+        ant.check_frequency(f)
+        label = name + (f" {r['bearing']}" if "bearing" in r else "")
+        readings.append(Reading(ant, level, label))
+    return NoiseReadings(f, b, readings)
 
 
 class LocateError(ValueError):
@@ -169,3 +261,31 @@ def locate(readings: list[Reading], *, freq_hz: float, bandwidth_hz: float, n_so
                "directional antennas pointing different ways")
     background = float(b)  # the background's Fa on the reference monopole: scale of the Fa-0-dB component
     return LocateResult(ok, msg, fitted, background, rms, model_dbm(x), levels, [r.label for r in readings])
+
+
+def scenario_blocks(res: LocateResult) -> str:
+    """The fitted sources as [[noise.local]] tables to append to a scenario."""
+    blocks = []
+    for i, s in enumerate(res.sources):
+        note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
+        blocks.append(
+            f'\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n'
+            f'name = "located source {i + 1}"\n'
+            f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n")
+    return "".join(blocks)
+
+
+def with_sources(text: str, res: LocateResult) -> str:
+    """Scenario TOML text with the fitted sources appended; refuses a failed fit."""
+    if not res.ok:
+        raise LocateError("the fit failed, so no sources were written: " + res.message)
+    return text.rstrip("\n") + "\n" + scenario_blocks(res)
+
+
+def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
+    """JSON-ready result (units in the keys)."""
+    return {"ok": res.ok, "message": res.message, "frequency_hz": freq_hz, "bandwidth_hz": bandwidth_hz,
+            "background_fa_db": res.background_fa_db, "residual_rms_db": res.residual_rms_db,
+            "sources": [vars(s) for s in res.sources],
+            "readings": [{"label": lab, "level_dbm": lv, "fitted_dbm": p}
+                         for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)]}

@@ -1,17 +1,14 @@
-"""Results as a terminal table, JSON or CSV, and whole-or-nothing file writing."""
+"""Results as a terminal table, JSON or CSV (files are written by :mod:`snrgain.files`)."""
 
 from __future__ import annotations
 
 import csv
 import io
 import json
-import os
-import tempfile
-from pathlib import Path
 
 import numpy as np
 
-from snrgain.evaluate import Results
+from snrgain.results import Results
 from snrgain.units import s_units
 
 
@@ -127,31 +124,3 @@ def ranking_table(results: Results):
                 "'!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the target "
                 "('none' if no gain can).", style="dim")
     return Group(head, t, pt, foot)
-
-
-def check_writable(path: str | Path, *, overwrite: bool) -> Path:
-    """Refuse an existing file unless ``overwrite``; check the folder exists."""
-    p = Path(path)
-    if p.exists() and not overwrite:
-        raise FileExistsError(f"{p} exists; pass --overwrite to replace it")
-    if not p.parent.exists():
-        raise FileNotFoundError(f"folder {p.parent} does not exist")
-    return p
-
-
-def write_whole(path: str | Path, text: str, *, overwrite: bool) -> None:
-    """Write ``text`` to ``path`` whole or not at all (temporary file, then rename)."""
-    p = check_writable(path, overwrite=overwrite)
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", dir=p.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-        if not overwrite and p.exists():
-            raise FileExistsError(f"{p} exists; pass --overwrite to replace it")
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)
-        os.replace(tmp, p)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise

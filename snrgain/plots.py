@@ -1,30 +1,30 @@
 """Figures from a Results object (matplotlib; no computation of physics here).
 
-Every function takes ``Results`` (from :func:`snrgain.evaluate`) and returns a
-matplotlib Figure; :func:`save` writes it whole or not at all as PNG or SVG.
-The same functions serve the command line and the report.
+Every function takes ``Results`` (from :func:`snrgain.evaluate`) and an
+optional ``ax`` to draw into (a notebook's axes; figures with several panels
+take a sequence of axes), and returns the matplotlib Figure.  Without ``ax``
+it makes a new :class:`matplotlib.figure.Figure`, not attached to pyplot, so
+nothing changes the user's backend or pyplot's list of open figures.
+:func:`save` writes a figure whole or not at all as PNG or SVG.  The same
+functions serve the command line and the report.
 
 - :func:`azimuth_pattern`: polar gain at the target's elevation, targets and local sources marked;
 - :func:`elevation_pattern`: gain against elevation toward the target's bearing;
 - :func:`noise_sky`: brightness over azimuth and elevation, per component and total;
 - :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles;
 - :func:`ranking_chart`: SNR gain bars with RDF and external-noise margin beside them;
-- :func:`site_plan`: the lot and the antennas drawn to scale (when the scenario gives them).
+- :func:`site_plan`: the lot and the antennas drawn to scale (when the scenario gives them);
+- :func:`located_sources`: the directions ``snrgain locate`` fitted.
 """
 
 from __future__ import annotations
 
-import os
-import tempfile
+from collections.abc import Sequence
 from pathlib import Path
 
-import matplotlib
-
-matplotlib.use("Agg")
-import matplotlib.pyplot as plt  # noqa: E402
-import numpy as np  # noqa: E402
-
-from noisemodels.p372 import BOLTZMANN_J_PER_K  # noqa: E402
+import numpy as np
+from matplotlib import colormaps
+from matplotlib.figure import Figure
 
 REFERENCE_STYLE = {"color": "0.35", "ls": "--", "lw": 1.6}
 FLOOR_SPAN_DB = 40.0
@@ -32,28 +32,48 @@ FLOOR_SPAN_DB = 40.0
 
 
 def _colors(n):
-    cmap = plt.get_cmap("tab10")
+    cmap = colormaps["tab10"]
     return [cmap(i % 10) for i in range(n)]
 
 
 def _antennas(results):
-    return [results.reference, *results.candidates]
+    return results.antennas
 
 
 def _label(a, results):
     return f"{a.name} (reference)" if a is results.reference else a.name
 
 
-def azimuth_pattern(results, *, target_index: int = 0):
-    """Polar azimuth pattern of every antenna at the target's mean elevation (dBi, floored)."""
-    fd = results.figures
+def _axes(ax, *, n: int = 1, polar: bool = False, figsize=(8.0, 5.0), columns: bool = False, width_ratios=None,
+          sharex: bool = False, sharey: bool = False):
+    """The figure and axes to draw on: those given (one Axes, or a sequence of n), or new ones on a new Figure
+    (n panels in a column, or in a row with ``columns``)."""
+    if ax is None:
+        fig = Figure(figsize=figsize)
+        if polar:
+            return fig, [fig.add_subplot(projection="polar")]
+        shape = (1, n) if columns else (n, 1)
+        grid = fig.subplots(*shape, squeeze=False, sharex=sharex, sharey=sharey,
+                            gridspec_kw={"width_ratios": width_ratios} if width_ratios else None)
+        return fig, list(grid.ravel())
+    axes = list(ax) if isinstance(ax, (Sequence, np.ndarray)) else [ax]
+    if len(axes) != n:
+        raise ValueError(f"ax: this figure draws {n} panel(s); got {len(axes)} axes")
+    if polar and axes[0].name != "polar":
+        raise ValueError("ax: this figure needs polar axes (projection='polar')")
+    return axes[0].figure, axes
+
+
+def azimuth_pattern(results, *, target_index: int = 0, ax=None):
+    """Polar azimuth pattern of every antenna at the target's mean elevation (dBi, floored); ``ax`` polar."""
+    own = ax is None
+    fd = results.cuts
     tgt = results.targets[target_index]
     el = 0.5 * (tgt["elevation_min_deg"] + tgt["elevation_max_deg"])
-    fig = plt.figure(figsize=(7.5, 7.0))
-    ax = fig.add_subplot(projection="polar")
+    fig, (ax,) = _axes(ax, polar=True, figsize=(7.5, 7.0))
     ax.set_theta_zero_location("N")
     ax.set_theta_direction(-1)
-    cuts = {a.name: fd.azimuth_cuts[a.name][target_index] for a in _antennas(results)}
+    cuts = {a.name: fd.azimuth[a.name][target_index] for a in _antennas(results)}
     top = max(np.nanmax(np.where(np.isfinite(c), c, -np.inf)) for c in cuts.values())
     floor = np.ceil(top) - FLOOR_SPAN_DB
     theta = np.radians(fd.azimuth_deg)
@@ -77,20 +97,22 @@ def azimuth_pattern(results, *, target_index: int = 0):
     ax.set_title(f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
                  f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz", pad=28)
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
-    fig.tight_layout()
+    if own:
+        fig.tight_layout()
     return fig
 
 
-def elevation_pattern(results, *, target_index: int = 0):
+def elevation_pattern(results, *, target_index: int = 0, ax=None):
     """Gain [dBi] against elevation toward the target's bearing, target elevations shaded."""
-    fd = results.figures
+    own = ax is None
+    fd = results.cuts
     tgt = results.targets[target_index]
-    fig, ax = plt.subplots(figsize=(8.0, 4.8))
+    fig, (ax,) = _axes(ax, figsize=(8.0, 4.8))
     ax.axvspan(tgt["elevation_min_deg"], max(tgt["elevation_max_deg"], tgt["elevation_min_deg"] + 0.5),
                color="gold", alpha=0.3, label=f"arrivals from '{tgt['name']}'")
     lows = []
     for a, col in zip(_antennas(results), _colors(len(_antennas(results)))):
-        g = fd.elevation_cuts[a.name][target_index]
+        g = fd.elevation[a.name][target_index]
         style = REFERENCE_STYLE if a is results.reference else {"color": col, "lw": 1.8}
         ax.plot(fd.elevation_deg, g, label=_label(a, results), **style)
         finite = g[np.isfinite(g)]
@@ -104,7 +126,8 @@ def elevation_pattern(results, *, target_index: int = 0):
     ax.set_title(f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz")
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8, loc="lower right", ncols=2)
-    fig.tight_layout()
+    if own:
+        fig.tight_layout()
     return fig
 
 
@@ -125,19 +148,24 @@ def _sky_grid(comp, az_edges, el_edges):
     return full[pix].reshape(A.shape)
 
 
-def noise_sky(results, *, month_index: int = 0, hour_index: int = 0):
-    """Brightness of each noise component and of their total over azimuth and elevation."""
-    comps = results.figures.sky[(month_index, hour_index)]
+def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only: bool = False, ax=None):
+    """Brightness of each diffuse noise component and of their total over azimuth and elevation.
+
+    ``ax``: one Axes with ``total_only``, else a sequence of one Axes per diffuse component plus one.
+    """
+    own = ax is None
+    if results.noise.maps is None:
+        raise ValueError("these results carry no sky maps")
+    comps = results.noise.maps[(month_index, hour_index)]
     diffuse = [c for c in comps if c.directions.nside is not None]
     compact = [c for c in comps if c.directions.nside is None]
     az_edges = np.arange(0, 361, 2.0)
     el_edges = np.arange(0, 91, 1.5)
     maps = [(c.name, _sky_grid(c, az_edges, el_edges)) for c in diffuse]
     total = sum(m for _, m in maps) if maps else np.zeros((el_edges.size - 1, az_edges.size - 1))
-    panels = [*maps, ("total of the diffuse components", total)]
+    panels = [("total of the diffuse components", total)] if total_only else [*maps, ("total of the diffuse components", total)]
     n = len(panels)
-    fig, axes = plt.subplots(n, 1, figsize=(9.0, 2.3 * n + 1.0), sharex=True, squeeze=False)
-    axes = axes[:, 0]
+    fig, axes = _axes(ax, n=n, figsize=(9.0, 2.3 * n + 1.0), sharex=True)
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
     vmax = 10 * np.log10(max(p.max() for p in positive)) if positive else 1.0
     vmin = vmax - 40
@@ -166,57 +194,34 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0):
     axes[-1].set_xticks(np.arange(0, 361, 45))
     month = results.months[month_index]
     hour = results.utc_hours[hour_index]
-    fig.suptitle(f"Noise sky at {results.site['name']}, month {month}, {hour:g} UTC, {results.freq_hz / 1e6:g} MHz\n"
-                 "(brightness temperature; crosses: local sources, cyan: targets)", fontsize=11)
-    fig.tight_layout(rect=(0, 0, 0.9, 1))
-    if mesh is not None:
-        cax = fig.add_axes((0.91, 0.15, 0.02, 0.7))
-        fig.colorbar(mesh, cax=cax, label="dB above 1 K")
+    title = (f"Noise sky at {results.site['name']}, month {month}, {hour:g} UTC, {results.freq_hz / 1e6:g} MHz\n"
+             "(brightness temperature; crosses: local sources, cyan: targets)")
+    if own:
+        fig.suptitle(title, fontsize=11)
+        fig.tight_layout(rect=(0, 0, 0.9, 1))
+        if mesh is not None:
+            fig.colorbar(mesh, cax=fig.add_axes((0.91, 0.15, 0.02, 0.7)), label="dB above 1 K")
+    else:
+        axes[0].set_title(title, fontsize=9)
+        if mesh is not None:
+            fig.colorbar(mesh, ax=axes, label="dB above 1 K")
     return fig
 
 
-def _temperature_from_dbm(dbm, results, antenna):
-    """Antenna temperature [K] from a power [dBm] delivered through the antenna's chain."""
-    g_chain = antenna.chain.get("gain_db", results.receiver.get("chain_gain_db", 0.0))
-    return 10 ** ((np.asarray(dbm) - g_chain) / 10) * 1e-3 / (BOLTZMANN_J_PER_K * results.bandwidth_hz)
-
-
-def _snr_with_atmospheric_scaled(results, a, scale_db):
-    """SNR gain [dB] of antenna a, averaged over targets, with atmospheric noise scaled by scale_db (array m,h)."""
-    atm = [n for n, c in results.noise.components.items() if c["kind"] == "atmospheric"]
-
-    def noise_t(ant):
-        t = 0.0
-        for name, dbm in ant.noise_by_component_dbm.items():
-            tk = _temperature_from_dbm(dbm, results, ant)
-            t = t + (tk * 10 ** (scale_db / 10) if name in atm else tk)
-        nf = ant.chain.get("noise_figure_db", results.receiver.get("chain_noise_figure_db"))
-        return t + 290.0 * (10 ** (nf / 10) - 1)
-
-    w = np.array([t["weight"] for t in results.targets])
-    g_a = 10 ** (np.asarray(a.gain_dbi) / 10)
-    g_r = 10 ** (np.asarray(results.reference.gain_dbi) / 10)
-    n_a = noise_t(a)
-    n_r = noise_t(results.reference)
-    per_target = 10 * np.log10((g_a[:, None, None] / n_a) / (g_r[:, None, None] / n_r))
-    return np.tensordot(w, per_target, axes=1)
-
-
-def snr_over_hours(results):
+def snr_over_hours(results, *, ax=None):
     """SNR gain over the reference against UTC hour (mean over targets and months), with P.372 decile bands."""
-    fig, ax = plt.subplots(figsize=(8.5, 4.8))
+    own = ax is None
+    fig, (ax,) = _axes(ax, figsize=(8.5, 4.8))
     hours = np.asarray(results.utc_hours, dtype=float)
     order = np.argsort(hours)
-    atm = [c for c in results.noise.components.values() if c["kind"] == "atmospheric"]
+    w = np.array([t["weight"] for t in results.targets])
+    atm = False
     for a, col in zip(results.candidates, _colors(len(results.candidates))):
-        w = np.array([t["weight"] for t in results.targets])
         mean = np.tensordot(w, a.snr_gain_db, axes=1).mean(axis=0)
         ax.plot(hours[order], mean[order], marker="o", ms=4, color=col, label=a.name)
-        if atm:
-            du = atm[0]["du_db"]
-            dl = atm[0]["dl_db"]
-            hi = _snr_with_atmospheric_scaled(results, a, du).mean(axis=0)
-            lo = _snr_with_atmospheric_scaled(results, a, -dl).mean(axis=0)
+        if a.snr_gain_atmospheric_deciles_db is not None:
+            atm = True
+            hi, lo = (np.tensordot(w, d, axes=1).mean(axis=0) for d in a.snr_gain_atmospheric_deciles_db)
             ax.fill_between(hours[order], np.minimum(hi, lo)[order], np.maximum(hi, lo)[order], color=col, alpha=0.15)
     ax.axhline(0.0, **REFERENCE_STYLE, label=f"{results.reference.name} (reference)")
     ax.set_xlabel("UTC hour")
@@ -227,20 +232,25 @@ def snr_over_hours(results):
     ax.set_xlim(-0.5, 24)
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8, ncols=2)
-    fig.tight_layout()
+    if own:
+        fig.tight_layout()
     return fig
 
 
-def ranking_chart(results):
-    """SNR gain per target (bars, mean over hours) with RDF per target and the worst-hour margin beside them."""
+def ranking_chart(results, *, ax=None):
+    """SNR gain per target (bars, mean over hours) with RDF per target and the worst-hour margin beside them.
+
+    ``ax``: a sequence of three Axes (SNR gain, RDF, margin).
+    """
+    own = ax is None
     cands = list(results.candidates)[::-1]
     names = [c.name for c in cands]
     targets = results.targets
     nt = len(targets)
     y = np.arange(len(cands))
     h = 0.8 / nt
-    fig, axes = plt.subplots(1, 3, figsize=(12, 0.6 * len(cands) * max(1, nt / 1.5) + 2.0), sharey=True,
-                             gridspec_kw={"width_ratios": [2, 1.2, 1]})
+    fig, axes = _axes(ax, n=3, columns=True, figsize=(12, 0.6 * len(cands) * max(1, nt / 1.5) + 2.0), sharey=True,
+                      width_ratios=[2, 1.2, 1])
     tcol = _colors(nt)
     for ti, t in enumerate(targets):
         off = (ti - (nt - 1) / 2) * h
@@ -271,23 +281,25 @@ def ranking_chart(results):
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
-    fig.suptitle(f"Ranking at {results.site['name']}, {results.freq_hz / 1e6:g} MHz (reference: {results.reference.name})",
-                 fontsize=11)
-    fig.tight_layout()
+    title = f"Ranking at {results.site['name']}, {results.freq_hz / 1e6:g} MHz (reference: {results.reference.name})"
+    if own:
+        fig.suptitle(title, fontsize=11)
+        fig.tight_layout()
     return fig
 
 
 def has_site_plan(results) -> bool:
-    return bool(results.figures and (results.figures.lot_m or any(
-        "position_m" in a.parameters for a in _antennas(results))))
+    """Whether the results give a lot outline or antenna positions to draw."""
+    return bool(results.lot_m or any("position_m" in a.parameters for a in _antennas(results)))
 
 
-def site_plan(results):
+def site_plan(results, *, ax=None):
     """The lot outline and each antenna to scale: wires from their feed point along their bearing."""
     if not has_site_plan(results):
         raise ValueError("the scenario gives no lot outline ([site] lot) and no antenna positions (position = [e, n])")
-    fig, ax = plt.subplots(figsize=(7.5, 7.5))
-    lot = results.figures.lot_m
+    own = ax is None
+    fig, (ax,) = _axes(ax, figsize=(7.5, 7.5))
+    lot = results.lot_m
     if lot:
         xs, ys = zip(*(list(lot) + [lot[0]]))
         ax.fill(xs, ys, color="honeydew", ec="darkgreen", lw=1.5, label="lot")
@@ -316,7 +328,32 @@ def site_plan(results):
                 ha="center", fontsize=12, fontweight="bold", arrowprops={"arrowstyle": "->", "lw": 2})
     ax.set_title(f"Site plan, {results.site['name']} (squares: feed points)")
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.1), ncols=1, frameon=False)
-    fig.tight_layout()
+    if own:
+        fig.tight_layout()
+    return fig
+
+
+def located_sources(res, *, ax=None):
+    """Polar plot of the directions ``snrgain locate`` fitted (a LocateResult), with their uncertainty."""
+    own = ax is None
+    fig, (ax,) = _axes(ax, polar=True, figsize=(6.0, 6.0))
+    ax.set_theta_zero_location("N")
+    ax.set_theta_direction(-1)
+    ax.set_rlim(0, 1.05)
+    ax.set_yticklabels([])
+    for i, s in enumerate(res.sources):
+        th = np.radians(s.bearing_deg)
+        sig = np.radians(min(s.bearing_sigma_deg, 90))
+        ax.fill_between(np.linspace(th - sig, th + sig, 30), 0, 1, alpha=0.25, color=f"C{i}",
+                        label=f"source {i + 1}: {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg")
+        ax.plot([th, th], [0, 1], color=f"C{i}", lw=2.5)
+        if s.ambiguous_180:
+            ax.plot([th + np.pi, th + np.pi], [0, 1], color=f"C{i}", lw=1.5, ls="--", label="180 deg ambiguity")
+    ax.set_title(("Fitted noise direction" if res.ok else "Fit failed: direction not constrained")
+                 + f"\n(background Fa {res.background_fa_db:.0f} dB, residual {res.residual_rms_db:.1f} dB)", pad=18)
+    ax.legend(loc="lower left", bbox_to_anchor=(-0.1, -0.15), fontsize=9)
+    if own:
+        fig.tight_layout()
     return fig
 
 
@@ -331,25 +368,12 @@ FIGURES = {
 """Figure functions by short name (for the command line)."""
 
 
-def _default_mode(path) -> None:
-    """Give a file made by mkstemp (0600) the permissions the user's umask gives new files."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, 0o666 & ~mask)
-
-
-def save(fig, path, *, overwrite: bool = False, dpi: int = 110) -> None:
+def save(fig, path, *, overwrite: bool = False, dpi: int = 110) -> Path:
     """Write a figure to PNG or SVG (by the suffix), whole or not at all; never replace without ``overwrite``."""
+    from snrgain.files import write_atomic
+
     p = Path(path)
-    if p.suffix.lower() not in (".png", ".svg"):
+    fmt = p.suffix.lower().lstrip(".")
+    if fmt not in ("png", "svg"):
         raise ValueError(f"{p}: figures are written as .png or .svg")
-    if p.exists() and not overwrite:
-        raise FileExistsError(f"{p} exists; pass --overwrite to replace it")
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=p.suffix, dir=p.parent)
-    os.close(fd)
-    try:
-        fig.savefig(tmp, dpi=dpi, bbox_inches="tight")
-        _default_mode(tmp)
-        os.replace(tmp, p)
-    finally:
-        Path(tmp).unlink(missing_ok=True)
+    return write_atomic(p, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight"), overwrite=overwrite)

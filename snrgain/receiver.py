@@ -10,9 +10,27 @@ line, transformer, preamplifier) is cascaded in snrgain.chain.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from noisemodels.p372 import BOLTZMANN_J_PER_K, T0_K
+
+
+DEFAULT_NOISE_FIGURE_DB = 15.0
+"""Receiver noise figure when none is given [dB]: typical of HF receivers on 160 m with the preamplifier off
+(common practice)."""
+DEFAULT_MARGIN_TARGET_DB = 10.0
+"""External noise wanted above the receiver chain's floor [dB]: at 10 dB the chain costs under 0.5 dB of SNR
+(common practice)."""
+
+
+@dataclass(frozen=True)
+class Receiver:
+    """The receiver: its noise figure and the margin of external noise over the chain's floor that is wanted."""
+
+    noise_figure_db: float
+    margin_target_db: float = DEFAULT_MARGIN_TARGET_DB
 
 
 def noise_floor_dbm(noise_figure_db, *, bandwidth_hz):

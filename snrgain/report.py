@@ -62,11 +62,8 @@ figcaption { font-size: 0.9em; color: #444; }
 
 
 def _svg(fig) -> str:
-    import matplotlib.pyplot as plt
-
     buf = io.StringIO()
     fig.savefig(buf, format="svg", bbox_inches="tight")
-    plt.close(fig)
     text = buf.getvalue()
     return text[text.index("<svg"):]  # drop the XML prolog and doctype: the SVG sits inline in HTML
 

@@ -17,10 +17,14 @@ from typing import Any, Literal
 import numpy as np
 from pydantic import Field, ValidationError, field_validator, model_validator
 
+from snrgain import chain as chainmod
+from snrgain import noise as noisemod
+from snrgain import receiver as rx
 from snrgain import targets as targetmod
 from snrgain.antennas import FAMILIES, Antenna, SpecError
 from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import pydantic_problems
+from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES
 from snrgain.fields import (
     Bearing,
     Decibels,
@@ -36,10 +40,10 @@ from snrgain.fields import (
 )
 from snrgain.ground import C_M_PER_S, Ground
 
-FREQ_RANGE_HZ = (0.1e6, 30e6)
-"""Frequencies the tool accepts: medium wave to the top of HF [Hz]."""
-
-MAN_MADE_CHOICES = ("city", "residential", "rural", "quiet rural", "none")
+_MM = noisemod.ManMadeNoise
+_AT = noisemod.AtmosphericNoise
+_GAL = noisemod.GalacticNoise
+_SRC = noisemod.LocalSource
 
 
 class ScenarioError(ValueError):
@@ -100,8 +104,8 @@ class Sector(StrictModel):
 
 
 class ManMade(StrictModel):
-    environment: Literal["city", "residential", "rural", "quiet rural", "none"] = "residential"
-    elevation_scale: quantity("angle", gt=0.0, le=np.pi / 2) = np.radians(10.0)
+    environment: Literal[MAN_MADE_CHOICES] = _MM.environment
+    elevation_scale: quantity("angle", gt=0.0, le=np.pi / 2) = _MM.elevation_scale_rad
     sector: Sector | None = None
 
 
@@ -111,10 +115,10 @@ class Atmospheric(StrictModel):
     upper_decile: Decibels = 0.0
     lower_decile: Decibels = 0.0
     arrival: Literal["storms", "uniform", "sector"] | None = None
-    elevation_center: Elevation = np.radians(20.0)
-    elevation_width: quantity("angle", gt=0.0, le=np.pi / 2) = np.radians(10.0)
+    elevation_center: Elevation = _AT.elevation_center_rad
+    elevation_width: quantity("angle", gt=0.0, le=np.pi / 2) = _AT.elevation_width_rad
     sector: Sector | None = None
-    layer_height: quantity("length", ge=80e3, le=1000e3) = 250e3
+    layer_height: quantity("length", ge=80e3, le=1000e3) = _AT.layer_height_m
     data_dir: str | None = None
 
     @model_validator(mode="after")
@@ -145,16 +149,16 @@ class Atmospheric(StrictModel):
 
 class Galactic(StrictModel):
     enabled: bool = True
-    critical_frequency_day: quantity("frequency", gt=0.0, le=30e6) = 6e6
-    critical_frequency_night: quantity("frequency", gt=0.0, le=30e6) = 3e6
-    layer_height: quantity("length", ge=80e3, le=1000e3) = 300e3
+    critical_frequency_day: quantity("frequency", gt=0.0, le=FREQ_RANGE_HZ[1]) = _GAL.critical_frequency_day_hz
+    critical_frequency_night: quantity("frequency", gt=0.0, le=FREQ_RANGE_HZ[1]) = _GAL.critical_frequency_night_hz
+    layer_height: quantity("length", ge=80e3, le=1000e3) = _GAL.layer_height_m
 
 
 class LocalSource(StrictModel):
     name: str
     bearing: Bearing
-    elevation: Elevation = np.radians(5.0)
-    spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = np.radians(10.0)
+    elevation: Elevation = _SRC.elevation_rad
+    spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
     fa: Decibels | None = None
 
@@ -214,7 +218,7 @@ class Target(StrictModel):
 class Receiver(StrictModel):
     noise_figure: Decibels | None = None
     noise_floor: PowerDbm | None = None
-    margin_target: Decibels = 10.0
+    margin_target: Decibels = rx.DEFAULT_MARGIN_TARGET_DB
 
     @model_validator(mode="after")
     def _one(self):
@@ -240,9 +244,7 @@ class Feedline(StrictModel):
         else:
             if self.cable is None or self.length is None:
                 raise ValueError("a feed line needs cable and length (or its total loss)")
-            from snrgain.chain import cable_by_name
-
-            cable_by_name(self.cable)
+            chainmod.cable_by_name(self.cable)
         return self
 
 
@@ -289,35 +291,75 @@ class ScenarioModel(StrictModel):
     compute: Compute = Compute()
 
 
-# -- the loaded scenario --------------------------------------------------------
+# -- the resolved scenario --------------------------------------------------------
 
-DEFAULT_NOISE_FIGURE_DB = 15.0
-"""Receiver noise figure when none is given [dB]: typical of HF receivers on
-160 m with the preamplifier off (common practice)."""
+@dataclass(frozen=True)
+class Site:
+    """Where the station is: name, place [deg], ground (None: perfect), lot outline [m east, m north]."""
+
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    ground: Ground | None
+    lot_m: tuple[tuple[float, float], ...] | None = None
+
+
+@dataclass(frozen=True)
+class Band:
+    """The frequency and the receiver's bandwidth [Hz]."""
+
+    freq_hz: float
+    bandwidth_hz: float
+
+
+@dataclass(frozen=True)
+class Times:
+    """The months (1-12) and UTC hours [h] listened at."""
+
+    months: tuple[int, ...]
+    utc_hours: tuple[float, ...]
 
 
 @dataclass(frozen=True)
 class Scenario:
-    """A validated scenario with its antennas built and targets resolved (SI inside)."""
+    """A validated scenario resolved into SI objects: antennas built, chains cascaded, targets placed.
+
+    ``chains[i]`` is the receiving chain of ``antennas[i]`` (its own, or the scenario's ``chain``).
+    """
 
     source: str
-    model: ScenarioModel
-    ground: Ground | None
-    reference: Antenna
-    candidates: list[Antenna]
-    targets: list[targetmod.TargetDirections]
+    site: Site
+    band: Band
+    times: Times
+    noise: noisemod.NoiseSettings
+    targets: tuple[targetmod.TargetDirections, ...]
     target_weights: np.ndarray
-    p372_dir: Path | None = None
-    antenna_chains: tuple = ()
-    """Per antenna ([reference, *candidates]): its own [chain] section, or None for the scenario's."""
+    """Targets' weights, adding to 1 [-]."""
+    reference: Antenna
+    candidates: tuple[Antenna, ...]
+    chains: tuple[chainmod.Chain, ...]
+    chain: chainmod.Chain
+    receiver: rx.Receiver
+    nside: int
+
+    @property
+    def antennas(self) -> list[Antenna]:
+        """The reference, then the candidates."""
+        return [self.reference, *self.candidates]
 
     @property
     def freq_hz(self) -> float:
-        return self.model.band.frequency
+        return self.band.freq_hz
 
     @property
     def bandwidth_hz(self) -> float:
-        return self.model.band.bandwidth
+        return self.band.bandwidth_hz
+
+    @property
+    def place(self) -> noisemod.Place:
+        """The site and band as the sky builder wants them."""
+        return noisemod.Place(self.site.latitude_deg, self.site.longitude_deg, self.band.freq_hz,
+                              self.band.bandwidth_hz)
 
 
 def _inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
@@ -417,21 +459,63 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
             data_dir = _p372_dir(model, base_dir, p372_dir)
         except ValueError as exc:
             problems.append(("noise.atmospheric", str(exc)))
+    receiver = chain = None
+    if model is not None:
+        try:
+            receiver = _receiver(model.receiver, model.band.bandwidth)
+            chain = chainmod.from_section(model.chain, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
+        except ValueError as exc:
+            problems.append(("receiver", str(exc)))
     if problems:
         raise ScenarioError(label, problems)
-    if nside is not None:
-        model = model.model_copy(update={"compute": Compute(nside=nside)})
     weights = np.array([t.weight for t in model.target])
+    own = [chainmod.from_section(c, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
+           if c is not None else chain for c in chains]
+    site = model.site
     return Scenario(
         source=label,
-        model=model,
-        ground=make_ground(model.site.ground),
-        reference=antennas[0],
-        candidates=antennas[1:],
-        targets=tgts,
+        site=Site(site.name, site.latitude, site.longitude, make_ground(site.ground),
+                  None if site.lot is None else tuple(site.lot)),
+        band=Band(model.band.frequency, model.band.bandwidth),
+        times=Times(tuple(model.time.months), tuple(model.time.utc_hours)),
+        noise=_noise_settings(model.noise, data_dir),
+        targets=tuple(tgts),
         target_weights=weights / weights.sum(),
+        reference=antennas[0],
+        candidates=tuple(antennas[1:]),
+        chains=tuple(own),
+        chain=chain,
+        receiver=receiver,
+        nside=nside if nside is not None else model.compute.nside,
+    )
+
+
+def _receiver(r: Receiver, bandwidth_hz: float) -> rx.Receiver:
+    if r.noise_floor is not None:
+        nf = float(rx.noise_figure_from_floor_db(r.noise_floor, bandwidth_hz=bandwidth_hz))
+    else:
+        nf = r.noise_figure if r.noise_figure is not None else rx.DEFAULT_NOISE_FIGURE_DB
+    return rx.Receiver(nf, r.margin_target)
+
+
+def _sector(sec: Sector | None) -> noisemod.Sector | None:
+    return None if sec is None else noisemod.Sector(sec.start, sec.stop, sec.contrast)
+
+
+def _noise_settings(n: Noise, data_dir: Path | None) -> noisemod.NoiseSettings:
+    mm, at, gal = n.man_made, n.atmospheric, n.galactic
+    return noisemod.NoiseSettings(
+        man_made=None if mm.environment == "none" else noisemod.ManMadeNoise(mm.environment, mm.elevation_scale,
+                                                                             _sector(mm.sector)),
+        atmospheric=None if at.model == "none" else noisemod.AtmosphericNoise(
+            model=at.model, fa_db=at.fa, upper_decile_db=at.upper_decile, lower_decile_db=at.lower_decile,
+            arrival=at.arrival_model, elevation_center_rad=at.elevation_center, elevation_width_rad=at.elevation_width,
+            sector=_sector(at.sector), layer_height_m=at.layer_height),
+        galactic=None if not gal.enabled else noisemod.GalacticNoise(
+            gal.critical_frequency_day, gal.critical_frequency_night, gal.layer_height),
+        local=tuple(noisemod.LocalSource(src.name, src.bearing, src.elevation, src.spread, src.fa, src.level)
+                    for src in n.local),
         p372_dir=data_dir,
-        antenna_chains=tuple(chains),
     )
 
 

@@ -19,6 +19,8 @@ Definitions used throughout (DESIGN.md, "SNR"):
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from noisemodels.sky import SkyComponent, weighted_temperature_k
@@ -73,3 +75,99 @@ def antenna_temperature_k(cache: GainCache, components: list[SkyComponent]) -> n
 def snr_gain_db(signal_a, noise_a, signal_r, noise_r):
     """SNR gain [dB] of A over R from signals (gains) and noise temperatures."""
     return 10.0 * np.log10((np.asarray(signal_a) / np.asarray(noise_a)) / (np.asarray(signal_r) / np.asarray(noise_r)))
+
+
+# -- the integrator's steps over a whole scenario --------------------------------------------------------------
+
+@dataclass
+class Gains:
+    """Every antenna's gains: a cache per antenna for any sky sample set, toward each target, and averaged.
+
+    caches : one :class:`GainCache` per antenna (linear gain on any Directions)
+    toward : weighted total gain toward each target [-], shape (antennas, targets)
+    mean : gain averaged over the upper hemisphere [-], shape (antennas,)
+    """
+
+    caches: list[GainCache]
+    toward: np.ndarray
+    mean: np.ndarray
+
+
+def antenna_gains(antennas, freq_hz: float, grid: Directions, targets) -> Gains:
+    """Gains of every antenna on the sky grid and toward every target at one frequency [Hz]."""
+    caches = [GainCache(lambda az, el, a=a: a.gain_linear(freq_hz, az, el)) for a in antennas]
+    toward = np.array([[target_gain(c.gain_fn, t) for t in targets] for c in caches]).reshape(len(caches), len(targets))
+    mean = np.array([hemisphere_mean_gain(c.on(grid), grid) for c in caches])
+    return Gains(caches, toward, mean)
+
+
+@dataclass
+class Temperatures:
+    """Antenna temperatures [K] from the sky: ``by_component`` (components, antennas, months, hours), ``total`` its
+    sum over components (antennas, months, hours)."""
+
+    by_component: np.ndarray
+    total: np.ndarray
+
+
+def sky_temperatures(gains: Gains, skies) -> Temperatures:
+    """Each antenna's temperature from each component of a :class:`snrgain.noise.SkySeries` built with maps."""
+    if skies.maps is None:
+        raise ValueError("antenna temperatures need the sky's maps; build the skies with maps=True")
+    nm, nh = len(skies.months), len(skies.utc_hours)
+    out = np.zeros((len(skies.names), len(gains.caches), nm, nh))
+    index = {n: i for i, n in enumerate(skies.names)}
+    for (i, j), comps in skies.maps.items():
+        rows = [index[c.name] for c in comps]
+        for k, cache in enumerate(gains.caches):
+            out[rows, k, i, j] = antenna_temperature_k(cache, comps)
+    return Temperatures(out, out.sum(axis=0))
+
+
+def front_to_back_toward(gains: Gains, targets) -> np.ndarray:
+    """Front-to-back [dB] of each antenna toward each target at its mean elevation, shape (antennas, targets)."""
+    return np.array([[front_to_back_db(c.gain_fn, bearing_rad=t.bearing_rad, elevation_rad=t.mean_elevation_rad)
+                      for t in targets] for c in gains.caches]).reshape(len(gains.caches), len(targets))
+
+
+AZIMUTH_CUT_DEG = np.arange(0.0, 360.5, 1.0)
+ELEVATION_CUT_DEG = np.arange(0.0, 90.25, 0.5)
+
+
+def pattern_cuts(antennas, freq_hz: float, targets) -> tuple[np.ndarray, np.ndarray]:
+    """Total gain [dBi] of each antenna on an azimuth cut at each target's mean elevation and on an elevation cut
+    toward each target's bearing: arrays (antennas, targets, AZIMUTH_CUT_DEG) and (antennas, targets,
+    ELEVATION_CUT_DEG)."""
+    with np.errstate(divide="ignore"):
+        az = np.array([[a.gain_dbi(freq_hz, AZIMUTH_CUT_DEG, np.degrees(t.mean_elevation_rad)) for t in targets]
+                       for a in antennas])
+        el = np.array([[a.gain_dbi(freq_hz, np.degrees(t.bearing_rad), ELEVATION_CUT_DEG) for t in targets]
+                       for a in antennas])
+    return az, el
+
+
+def snr_gain_over_reference(toward, noise_k) -> np.ndarray:
+    """SNR gain [dB] of every antenna over antenna 0 (the reference), per target, month and hour.
+
+    ``toward`` (antennas, targets): gains toward the targets; ``noise_k`` (antennas, months, hours): total noise
+    temperature at the antenna terminals (sky plus chain).  Returns (antennas, targets, months, hours).
+    """
+    signal = np.asarray(toward)[:, :, None, None]
+    noise = np.asarray(noise_k)[:, None]
+    return snr_gain_db(signal, noise, signal[:1], noise[:1])
+
+
+def snr_gain_with_scaled_kind(toward, sky_k, chain_k, skies, *, kind: str, deviation: str) -> np.ndarray | None:
+    """SNR gain over the reference [dB] with the components of ``kind`` moved to their upper (``deviation="upper"``)
+    or lower (``"lower"``) decile, the rest at their medians; None if the sky has no such component.
+
+    ``sky_k`` are :class:`Temperatures`; ``chain_k`` the chains' temperatures [K] per antenna.  The deviation is the
+    first such component's, per month and hour.  Shape (antennas, targets, months, hours).
+    """
+    rows = skies.index(kind)
+    if not rows:
+        return None
+    dev = skies.du_db[rows[0]] if deviation == "upper" else -skies.dl_db[rows[0]]
+    part = sky_k.by_component[rows].sum(axis=0)
+    noise = sky_k.total + part * (10.0 ** (dev / 10.0) - 1.0) + np.asarray(chain_k)[:, None, None]
+    return snr_gain_over_reference(toward, noise)

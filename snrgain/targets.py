@@ -24,7 +24,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-EARTH_RADIUS_M = 6_371_000.0
+from noisemodels.hops import fewest_hops, hop_elevation_rad
+
 DEFAULT_LAYER_HEIGHT_M = 250e3
 DEFAULT_MIN_ELEVATION_RAD = np.radians(3.0)
 
@@ -72,18 +73,6 @@ def from_bearing(name: str, *, bearing_rad: float, elevation_lo_rad: float, elev
     return TargetDirections(name, az, el, np.full(el.size, 1.0 / el.size), float(np.mod(bearing_rad, 2 * np.pi)))
 
 
-def hop_elevation_rad(distance_m, hops, *, layer_height_m):
-    """Elevation [rad] of an n-hop path of ground distance [m] via a layer at a height [m]."""
-    theta = np.asarray(distance_m, dtype=float) / (2.0 * np.asarray(hops) * EARTH_RADIUS_M)
-    return np.arctan2(np.cos(theta) - EARTH_RADIUS_M / (EARTH_RADIUS_M + layer_height_m), np.sin(theta))
-
-
-def max_hop_distance_m(*, layer_height_m, min_elevation_rad):
-    """Longest single hop [m] for an elevation no lower than ``min_elevation_rad``."""
-    a = np.arccos(EARTH_RADIUS_M * np.cos(min_elevation_rad) / (EARTH_RADIUS_M + layer_height_m))
-    return 2.0 * EARTH_RADIUS_M * (a - min_elevation_rad)
-
-
 def geodesic(lat1_deg, lon1_deg, lat2_deg, lon2_deg) -> tuple[float, float]:
     """(initial bearing [rad, compass], distance [m]) from point 1 to point 2 on WGS-84."""
     from pyproj import Geod
@@ -106,7 +95,7 @@ def from_place(
     bearing, dist = geodesic(site_lat_deg, site_lon_deg, lat_deg, lon_deg)
     if dist < 1e3:
         raise ValueError(f"target {name!r} lies within 1 km of the site; give it by bearing and elevation instead")
-    n_min = max(1, int(np.ceil(dist / max_hop_distance_m(layer_height_m=layer_height_m, min_elevation_rad=min_elevation_rad))))
+    n_min = fewest_hops(dist, layer_height_m=layer_height_m, min_elevation_rad=min_elevation_rad)
     hops = (n_min, n_min + 1)
     lo, hi = (float(hop_elevation_rad(dist, n, layer_height_m=layer_height_m)) for n in hops)
     el = _samples(lo, hi)

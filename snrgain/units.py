@@ -1,11 +1,28 @@
 """Quantities as users write them, converted to SI at the edge.
 
 ``parse_quantity("400 ft", "length")`` -> 121.92 (metres).  Every physical
-quantity in a scenario goes through here; the rest of the code sees SI floats.
+quantity in a scenario, a readings file or an option goes through here; the
+rest of the code sees SI floats.
+
+Grammar (no expressions are evaluated): a decimal number, optionally with an
+exponent, then at most one unit, a word or a word over a word ("mS/m").  The
+unit is looked up once (pint's registry, cached) and must be of the expected
+dimension.  ``"2,5 m"``, ``"8 10 ft"``, ``"3 m; 2"`` or ``"9**9**9 m"`` are
+refused, not guessed at.
 
 Levels in dB are parsed here too: ``"-95 dBm"`` (power), ``"S7"`` or
 ``"S9+10"`` (S-units per IARU Region 1 Technical Recommendation R.1: S9 is
--73 dBm below 30 MHz, 6 dB per S-unit) and ``"12 dB"``.
+-73 dBm below 30 MHz, 6 dB per S-unit), ``"12 dB"``, and line attenuations
+(``"2 dB/100m"``, ``"0.6 dB/100ft"``).
+
+    >>> round(parse_quantity("400 ft", "length"), 2)
+    121.92
+    >>> parse_quantity("1.83 MHz", "frequency")
+    1830000.0
+    >>> parse_power_dbm("S9+10")
+    -63.0
+    >>> parse_attenuation_db_per_100m("0.02 dB/m")
+    2.0
 """
 
 from __future__ import annotations
@@ -30,6 +47,13 @@ S9_DBM = -73.0
 DB_PER_S_UNIT = 6.0
 """dB per S-unit, IARU Region 1 Technical Recommendation R.1."""
 
+_NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?"
+_WORD = r"[A-Za-z\u00b0\u00b5\u03bc\u03a9]+"
+_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*({_WORD}(?:\s*/\s*{_WORD})?)?\s*$")
+_ATTENUATION = re.compile(rf"^\s*({_NUMBER})\s*(?:dB\s*/\s*(100\s*m|100\s*ft|m|ft))?\s*$", re.IGNORECASE)
+_ATTENUATION_SCALE = {"100m": 1.0, "100ft": 1.0 / 0.3048, "m": 100.0, "ft": 100.0 / 0.3048}
+ATTENUATION_RANGE_DB_PER_100M = (0.0, 200.0)
+
 
 class QuantityError(ValueError):
     """A value that is not a quantity of the expected kind."""
@@ -39,8 +63,12 @@ class QuantityError(ValueError):
 def registry():
     import pint
 
-    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-    return ureg
+    return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+
+
+def _reject_non_text(value, what: str, example: str) -> None:
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        raise QuantityError(f"expected {what} such as {example}, got {value!r}")
 
 
 def parse_quantity(value, dimension: str) -> float:
@@ -54,62 +82,71 @@ def parse_quantity(value, dimension: str) -> float:
 
     Returns
     -------
-    float in the SI unit of the dimension (m, Hz, S/m, ohm, rad)
+    float in the SI unit of the dimension (m, Hz, S/m, ohm, rad, s)
 
     Raises
     ------
     QuantityError naming what was expected.
     """
     si_unit, example, bare_ok = DIMENSIONS[dimension]
-    if isinstance(value, bool):
-        raise QuantityError(f"expected {dimension} such as {example}, got {value!r}")
-    if isinstance(value, (int, float)):
+    _reject_non_text(value, dimension, example)
+    if isinstance(value, str):
+        m = _QUANTITY.match(value)
+        if m is None:
+            raise QuantityError(f"cannot read {value!r} as {dimension}: write a number and one unit, like {example}")
+        number, unit = float(m.group(1)), m.group(2)
+        if unit is None and not bare_ok:
+            raise QuantityError(f"{value!r} has no {dimension} unit; write it like {example}")
+        x = number * (_unit_scale(unit, dimension) if unit is not None else _bare_scale(dimension))
+    else:
         if not bare_ok:
             raise QuantityError(f"a bare number is ambiguous here; give the {dimension} with its unit, such as {example}")
-        x = float(value)
-        if dimension == "angle":
-            x = np.radians(x)
-    elif isinstance(value, str):
-        text = value.strip()
-        if dimension == "angle" and _is_number(text):
-            x = float(np.radians(float(text)))
-        elif dimension == "resistance" and _is_number(text):
-            x = float(text)
-        else:
-            x = _pint_convert(text, si_unit, dimension, example)
-    else:
-        raise QuantityError(f"expected {dimension} such as {example}, got {value!r}")
+        x = float(value) * _bare_scale(dimension)
     if not np.isfinite(x):
         raise QuantityError(f"expected a finite {dimension}, got {value!r}")
     return float(x)
 
 
-def _article(word: str) -> str:
-    return "an" if word[0] in "aeiou" else "a"
+def _bare_scale(dimension: str) -> float:
+    return float(np.pi / 180.0) if dimension == "angle" else 1.0
 
 
-def _is_number(text: str) -> bool:
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
-
-
-def _pint_convert(text, si_unit, dimension, example):
+@lru_cache(maxsize=512)
+def _unit_scale(unit: str, dimension: str) -> float:
+    """SI value of one ``unit`` of ``dimension`` (looked up once; a single unit name, never an expression)."""
     import pint
 
+    si_unit, example, _ = DIMENSIONS[dimension]
+    text = re.sub(r"\s+", "", unit).replace("\u03a9", "ohm").replace("\u00b0", "degree")
     ureg = registry()
     try:
-        q = ureg.Quantity(text.replace("Ω", "ohm"))
-    except Exception as exc:  # pint's parser raises many kinds (tokenize, syntax, undefined unit)
-        raise QuantityError(f"cannot read {text!r} as {dimension} ({exc}); write it like {example}") from None
-    if isinstance(q, (int, float)) or q.unitless or (q.dimensionless and dimension != "angle"):
-        raise QuantityError(f"{text!r} has no {dimension} unit; write it like {example}")
+        q = ureg.Quantity(1.0, ureg.parse_units(text))
+    except Exception:  # pint raises several kinds for an unknown name
+        raise QuantityError(f"unknown unit {unit!r} for {dimension}; write it like {example}") from None
+    if q.dimensionless and dimension != "angle":
+        raise QuantityError(f"{unit!r} is not a unit of {dimension}; write it like {example}")
     try:
         return float(q.to(si_unit).magnitude)
     except (pint.errors.DimensionalityError, TypeError, ValueError):
-        raise QuantityError(f"{text!r} is not {_article(dimension)} {dimension}; write it like {example}") from None
+        raise QuantityError(f"{unit!r} is not a unit of {dimension}; write it like {example}") from None
+
+
+def parse_attenuation_db_per_100m(value) -> float:
+    """A line's attenuation as '2 dB/100m', '0.6 dB/100ft', '0.02 dB/m' or a bare number of dB per 100 m."""
+    example = "'2 dB/100m' or '0.6 dB/100ft'"
+    _reject_non_text(value, "an attenuation", example)
+    if isinstance(value, str):
+        m = _ATTENUATION.match(value)
+        if m is None:
+            raise QuantityError(f"expected an attenuation such as {example}, got {value!r}")
+        per = re.sub(r"\s+", "", m.group(2) or "100m").lower()
+        x = float(m.group(1)) * _ATTENUATION_SCALE[per]
+    else:
+        x = float(value)
+    lo, hi = ATTENUATION_RANGE_DB_PER_100M
+    if not (np.isfinite(x) and lo <= x <= hi):
+        raise QuantityError(f"attenuation must lie between {lo:g} and {hi:g} dB/100 m, got {value!r}")
+    return x
 
 
 _DBM = re.compile(r"^\s*([-+]?\d+(?:\.\d*)?|[-+]?\.\d+)\s*dBm\s*$", re.IGNORECASE)
@@ -155,12 +192,17 @@ def parse_db(value) -> float:
     """A ratio in dB: "12 dB" or a bare number."""
     if isinstance(value, bool):
         raise QuantityError(f"expected a value in dB such as '12 dB', got {value!r}")
+    x = None
     if isinstance(value, (int, float)):
-        return float(value)
-    if isinstance(value, str):
+        x = float(value)
+    elif isinstance(value, str):
         m = _DB.match(value)
         if m:
-            return float(m.group(1))
-        if _is_number(value):
-            return float(value)
-    raise QuantityError(f"expected a value in dB such as '12 dB', got {value!r}")
+            x = float(m.group(1))
+        elif re.fullmatch(r"\s*" + _NUMBER + r"\s*", value):
+            x = float(value)
+    if x is None:
+        raise QuantityError(f"expected a value in dB such as '12 dB', got {value!r}")
+    if not np.isfinite(x):
+        raise QuantityError(f"expected a finite value in dB, got {value!r}")
+    return x

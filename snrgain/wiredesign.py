@@ -30,11 +30,19 @@ PRACTICAL_TURNS = (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0)
 """Turns ratios easy to wind on a small two-hole ferrite core (integer and half turns)."""
 
 
+DEFAULT_ELEVATION_RAD = np.radians(20.0)
+"""Elevation of the target along the wire when none is given [rad]: a typical low-band DX arrival angle
+(common practice)."""
+
+
+def along_wire_target(bearing_rad: float, elevation_rad: float = DEFAULT_ELEVATION_RAD) -> TargetDirections:
+    """A target straight along a wire's bearing at one elevation."""
+    return from_bearing("along the wire", bearing_rad=bearing_rad, elevation_lo_rad=elevation_rad,
+                        elevation_hi_rad=elevation_rad)
+
+
 def _target(target, bearing_rad) -> TargetDirections:
-    if target is not None:
-        return target
-    return from_bearing("along the wire", bearing_rad=bearing_rad, elevation_lo_rad=np.radians(20.0),
-                        elevation_hi_rad=np.radians(20.0))
+    return target if target is not None else along_wire_target(bearing_rad)
 
 
 def rdf_db(antenna, freq_hz: float, target: TargetDirections, grid: Directions) -> float:

@@ -67,7 +67,7 @@ def test_elevation_pattern(results, tmp_path):
 
 def test_noise_sky_panels(summer, tmp_path):
     fig = plots.noise_sky(summer, hour_index=2)
-    diffuse = [c for c in summer.figures.sky[(0, 2)] if c.directions.nside is not None]
+    diffuse = [c for c in summer.noise.maps[(0, 2)] if c.directions.nside is not None]
     # one panel per diffuse component, one for the total, and the colour bar
     assert len(fig.axes) == len(diffuse) + 2
     assert all("elevation" in ax.get_ylabel() for ax in fig.axes[:-1])

@@ -197,7 +197,7 @@ def test_closed_form_matches_numerical_integration_of_the_source():
     ant = from_spec({"family": "beverage", "length": "230 m", "height": "2.5 m", "ground": "average", "bearing": 30})
     f = 1.83e6
     az, el = np.radians(np.array([10.0, 95.0, 200.0])), np.radians(np.array([12.0, 30.0, 5.0]))
-    cur, _ = ant._currents(f, az, el)
+    cur, _ = ant.currents(f, az, el)
     ln = ant.line(f)
     g, z0, L, h = ln.gamma, ln.z0, ant.length_m, 2.5
     zf = ant.receiver_load_ohm(f) + ant.params.feed_ground
@@ -251,7 +251,7 @@ def test_pattern_shape_independent_of_feed_load():
 def test_longer_wire_more_rdf_up_to_a_point():
     f = 1.83e6
     lam = C_M_PER_S / f
-    tgt = wiredesign._target(None, 0.0)
+    tgt = wiredesign.along_wire_target(0.0)
     rdf = [wiredesign.rdf_db(from_spec({"family": "beverage", "length": f"{x * lam} m", "height": "2.5 m",
                                         "ground": "average"}), f, tgt, GRID) for x in (0.3, 0.6, 1.0, 1.5)]
     assert np.all(np.diff(rdf) > 0)

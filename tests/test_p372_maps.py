@@ -204,7 +204,7 @@ def test_scenario_asking_for_p372_without_data_fails_clearly(minimal_text, monke
     with pytest.raises(ScenarioError, match="noise.atmospheric: .*no data folder is set.*SNRGAIN_P372_DIR"):
         load(minimal_text + '\n[noise.atmospheric]\nmodel = "p372"\n')
     # A scenario that does not ask runs without data.
-    assert load(minimal_text).model.noise.atmospheric.model == "none"
+    assert load(minimal_text).noise.atmospheric is None
 
 
 def test_data_dir_precedence_scenario_env_option(minimal_text, monkeypatch, tmp_path):
@@ -213,13 +213,13 @@ def test_data_dir_precedence_scenario_env_option(minimal_text, monkeypatch, tmp_
     text = minimal_text + '\n[noise.atmospheric]\nmodel = "p372"\n'
     # The option alone works.
     monkeypatch.delenv(p372_maps.ENV_VAR, raising=False)
-    assert load(text, p372_dir=P372_DIR).p372_dir == P372_DIR
+    assert load(text, p372_dir=P372_DIR).noise.p372_dir == P372_DIR
     # The environment variable wins over the option.
     monkeypatch.setenv(p372_maps.ENV_VAR, str(tmp_path))
     with pytest.raises(ScenarioError, match=str(tmp_path)):
         load(text, p372_dir=P372_DIR)
     # The scenario key wins over both.
-    assert load(text + f'data_dir = "{P372_DIR}"\n', p372_dir=tmp_path).p372_dir == P372_DIR
+    assert load(text + f'data_dir = "{P372_DIR}"\n', p372_dir=tmp_path).noise.p372_dir == P372_DIR
 
 
 def test_noise_command_table_and_json(tmp_path):

@@ -103,7 +103,7 @@ def test_local_source_needs_exactly_one_level(minimal_text):
 def test_s_units_and_dbm_levels(minimal_text):
     for level in ('"S7"', '"S9+10"', '"-95 dBm"'):
         sc = load(minimal_text + f'\n[[noise.local]]\nname = "n"\nbearing = 90\nlevel = {level}\n')
-        assert sc.model.noise.local[0].level in (-85.0, -63.0, -95.0)
+        assert sc.noise.local[0].level_dbm in (-85.0, -63.0, -95.0)
 
 
 def test_man_made_choices_listed(minimal_text):

@@ -3,6 +3,7 @@
 import numpy as np
 import pytest
 
+from noisemodels import hops
 from snrgain import targets
 
 
@@ -22,9 +23,9 @@ def test_geodesic_due_north():
 def test_hop_geometry_consistent_with_triangle(d_km, h_km):
     # Independent check: a ray leaving the ground at the computed elevation reaches radius R + h at
     # central angle theta = d / (2R) (law of sines in the triangle earth-centre, ground point, layer point).
-    R = targets.EARTH_RADIUS_M
+    R = hops.EARTH_RADIUS_M
     h = h_km * 1e3
-    el = float(targets.hop_elevation_rad(d_km * 1e3, 1, layer_height_m=h))
+    el = float(hops.hop_elevation_rad(d_km * 1e3, 1, layer_height_m=h))
     theta = d_km * 1e3 / (2 * R)
     # Angle at the layer point: sin(beta) = R cos(el) / (R + h); triangle angles sum to pi.
     beta = np.arcsin(R * np.cos(el) / (R + h))
@@ -32,7 +33,7 @@ def test_hop_geometry_consistent_with_triangle(d_km, h_km):
 
 
 def test_short_path_is_near_vertical_and_elevation_falls_with_distance():
-    el = targets.hop_elevation_rad(np.array([10e3, 500e3, 2000e3]), 1, layer_height_m=250e3)
+    el = hops.hop_elevation_rad(np.array([10e3, 500e3, 2000e3]), 1, layer_height_m=250e3)
     assert np.degrees(el[0]) > 85
     assert np.all(np.diff(el) < 0)
 
@@ -41,7 +42,7 @@ def test_place_target_uses_fewest_hops_above_min_elevation():
     t = targets.from_place("far", site_lat_deg=40.0, site_lon_deg=-75.0, lat_deg=51.5, lon_deg=0.0)
     assert t.hops[0] >= 1 and t.hops[1] == t.hops[0] + 1
     assert np.degrees(t.elevation_rad.min()) >= 3.0 - 1e-9
-    one_less = targets.hop_elevation_rad(t.distance_m, t.hops[0] - 1, layer_height_m=250e3) if t.hops[0] > 1 else None
+    one_less = hops.hop_elevation_rad(t.distance_m, t.hops[0] - 1, layer_height_m=250e3) if t.hops[0] > 1 else None
     if one_less is not None:
         assert np.degrees(one_less) < 3.0
     assert t.weight.sum() == pytest.approx(1.0)

@@ -58,85 +58,43 @@ neglected.  NEC-2 (PyNEC) is the independent check in the tests.
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
-from pydantic import BeforeValidator, Field, model_validator
+from pydantic import Field, model_validator
 
 from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
-from snrgain.fields import Bearing, GroundField, make_ground, quantity
+from snrgain.fields import Attenuation, Bearing, GroundField, WireSize, make_ground, quantity
+from snrgain.constants import FREQ_RANGE_HZ
 from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
-FREQ_RANGE_HZ = (0.1e6, 30e6)
 
 
-def _attenuation(value):
-    """Attenuation as '2 dB/100m', '0.6 dB/100ft' or a bare number of dB per 100 m."""
-    from snrgain.units import QuantityError
-
-    if isinstance(value, bool):
-        raise QuantityError(f"expected an attenuation such as '2 dB/100m', got {value!r}")
-    if isinstance(value, (int, float)):
-        x = float(value)
-    elif isinstance(value, str):
-        text = value.replace(" ", "").lower()
-        for suffix, scale in (("db/100m", 1.0), ("db/100ft", 1.0 / 0.3048), ("db/m", 100.0)):
-            if text.endswith(suffix):
-                try:
-                    x = float(text[: -len(suffix)]) * scale
-                except ValueError:
-                    break
-                break
-        else:
-            raise QuantityError(f"expected an attenuation such as '2 dB/100m' or '0.6 dB/100ft', got {value!r}")
-    else:
-        raise QuantityError(f"expected an attenuation such as '2 dB/100m', got {value!r}")
-    if not 0 <= x <= 200:
-        raise QuantityError(f"attenuation must lie between 0 and 200 dB/100 m, got {value!r}")
-    return x
-
-
-Attenuation = Annotated[float, BeforeValidator(_attenuation)]
-"""Attenuation of a line: '2 dB/100m', '0.6 dB/100ft', '0.02 dB/m' or a bare number of dB per 100 m."""
-
-
-class WireParams(AntennaParams):
+class WireParams(WireSize, AntennaParams):
     """Keys shared by the long-wire families."""
 
     length: quantity("length", gt=0.0, le=3000.0)
     bearing: Bearing = 0.0
-    gauge: int | None = Field(default=None, ge=-3, le=40, description="AWG gauge")
-    diameter: quantity("length", gt=0.0, le=0.02) | None = None
     feed_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
     coax: Literal[50, 75] = 75
     turns_ratio: float | Literal["auto"] = "auto"
     velocity_factor: float | None = Field(default=None, gt=0.0, le=1.0)
     attenuation: Attenuation | None = None
+    """Measured attenuation [dB/100 m]."""
     z0: float | None = Field(default=None, gt=0.0, le=2000.0)
     ground: GroundField | None = None
 
     @model_validator(mode="after")
     def _wire(self):
-        if self.gauge is not None and self.diameter is not None:
-            raise ValueError("give gauge (AWG) or diameter, not both")
         if isinstance(self.turns_ratio, float) and not 0.1 <= self.turns_ratio <= 20:
             raise ValueError(f"turns_ratio must be 'auto' or between 0.1 and 20; got {self.turns_ratio!r}")
-        measured = [self.velocity_factor, self.attenuation_db_per_100m, self.z0]
+        measured = [self.velocity_factor, self.attenuation, self.z0]
         if any(v is not None for v in measured) and not all(v is not None for v in measured):
             raise ValueError("measured line constants need all three: velocity_factor, attenuation (dB/100 m) and z0")
         return self
-
-    @property
-    def attenuation_db_per_100m(self):
-        return self.attenuation
-
-    @property
-    def radius_m(self) -> float:
-        if self.diameter is not None:
-            return self.diameter / 2
-        return lines.awg_diameter_m(14 if self.gauge is None else self.gauge) / 2
 
 
 class BeverageParams(WireParams):
@@ -185,7 +143,9 @@ class TwoWireParams(WireParams):
         return self
 
 
-def _safe_expint(z, length):
+# -- pure kernels: the incident wave, the line's response ----------------------------------------------------
+
+def safe_expint(z, length):
     """(exp(z L) - 1) / z, with the limit L (1 + z L / 2) where |z L| is tiny."""
     z = np.asarray(z, dtype=complex)
     zl = z * length
@@ -197,13 +157,103 @@ def _safe_expint(z, length):
     return out / z
 
 
+@dataclass(frozen=True)
+class PlaneWave:
+    """A unit plane wave from (azimuth, elevation) seen by a wire of bearing b over a ground.
+
+    el : elevation as asked [rad] (negative below the horizon); el_c : clipped to [0, pi/2]
+    s : sin(el_c); dphi : azimuth - b [rad]; along : cos(el_c) cos(dphi), the wave's slowness along the wire
+    r_v, r_h : Fresnel coefficients at el_c; k : free-space wavenumber [1/m]
+    """
+
+    k: float
+    el: np.ndarray
+    el_c: np.ndarray
+    s: np.ndarray
+    dphi: np.ndarray
+    along: np.ndarray
+    r_v: np.ndarray
+    r_h: np.ndarray
+
+
+def plane_wave(freq_hz: float, azimuth_rad, elevation_rad, *, bearing_rad: float, ground) -> PlaneWave:
+    """The incident-wave quantities every line-model family needs (see :class:`PlaneWave`)."""
+    az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+    el_c = np.clip(el, 0.0, np.pi / 2)
+    r_v, r_h = reflection_coefficients(ground, el_c, freq_hz)
+    dphi = az - bearing_rad
+    return PlaneWave(2 * np.pi * freq_hz / C_M_PER_S, el, el_c, np.sin(el_c), dphi, np.cos(el_c) * np.cos(dphi),
+                     r_v, r_h)
+
+
+def field_along_wire(w: PlaneWave, height_m: float) -> tuple[np.ndarray, np.ndarray]:
+    """Field component along a horizontal wire at a height, incident plus reflected (vertical, horizontal pol.)."""
+    up = np.exp(1j * w.k * height_m * w.s)
+    down = np.conj(up)  # k h s is real
+    a_h = -np.sin(w.dphi) * (up + w.r_h * down)
+    a_v = -w.s * np.cos(w.dphi) * (up - w.r_v * down)
+    return a_v, a_h
+
+
+def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
+    """EMF of a vertical conductor from z_low to z_high: cos(Delta) integral [e^{jkzs} + R_v e^{-jkzs}] dz."""
+    seg = safe_expint(1j * w.k * w.s, z_high_m) - safe_expint(1j * w.k * w.s, z_low_m)
+    return np.cos(w.el_c) * (seg + w.r_v * np.conj(seg))
+
+
+def line_currents(w: PlaneWave, *, line: lines.LineConstants, length_m: float, z_feed: complex,
+                  z_far: complex | None, drive, v_feed, v_far, far_current: bool = False):
+    """Feed and far-end currents [A] of a line driven by a plane wave (module docstring).
+
+    The distributed EMF per metre is ``drive * exp(+j k along x)``; ``v_feed`` and ``v_far`` are lumped EMFs at
+    the two ends (counted around one loop: up at the feed, down at the far end).  ``z_far`` None is an open far
+    end.  Returns (I_F, I_R); I_R is None unless ``far_current``.
+    """
+    g, z0, L = line.gamma, line.z0, length_m
+    jkc = 1j * w.k * w.along
+    e2 = np.exp(-2 * g * L)
+    eg = np.exp(-g * L)
+    z_minus = jkc - g
+    decay = np.exp(z_minus * L)                              # e^{(jkc - g) L}
+    phase_l = decay / eg                                     # e^{jkcL}
+    if g.real > 0:
+        j_plus = (decay - 1.0) / z_minus                     # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
+    else:  # a lossless line (measured constants): z_minus can vanish end-on
+        j_plus = safe_expint(z_minus, L)
+    j_minus = (decay - e2) / (jkc + g)                       # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
+    i_cosh, i_sinh = 0.5 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    v_far = v_far * phase_l
+    if z_far is None:
+        return (drive * i_sinh + v_feed * sh) / (z0 * ch + z_feed * sh), None
+    denom = z0 * (z_feed + z_far) * ch + (z0**2 + z_feed * z_far) * sh
+    i_f = (drive * (z0 * i_cosh + z_far * i_sinh) + v_feed * (z0 * ch + z_far * sh) - v_far * z0 * eg) / denom
+    if not far_current:
+        return i_f, None
+    k_plus = (phase_l - eg) / (jkc + g)                      # e^{-gL} int e^{jkcx} e^{gx} dx
+    k_minus = eg * j_plus                                    # e^{-gL} int e^{jkcx} e^{-gx} dx
+    k_cosh, k_sinh = 0.5 * (k_plus + k_minus), 0.5 * (k_plus - k_minus)
+    i_r = (drive * (z0 * k_cosh + z_feed * k_sinh) + v_feed * z0 * eg - v_far * (z0 * ch + z_feed * sh)) / denom
+    return i_f, i_r
+
+
+def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, power_factor: float = 1.0):
+    """Complex response whose squared magnitude is the realized gain into a resistive load [-].
+
+    Power 0.5 |I|^2 R into the load over the incident density |E|^2 / (2 eta0) is the effective area;
+    gain = 4 pi A / lambda^2.  0 below the horizon.
+    """
+    lam = C_M_PER_S / freq_hz
+    scale = np.sqrt(4 * np.pi / lam**2 * load_ohm * ETA0_OHM * power_factor)
+    return np.where(above_horizon(elevation_rad), scale * current, 0.0)
+
+
 class LongWire(TransformerFeed, Antenna):
-    """Shared machinery of the long-wire families."""
+    """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
     has_far_lead = True
     has_leads = True
     terminated = True
-    needs_far_current = False
 
     def __init__(self, params: WireParams):
         super().__init__(params)
@@ -228,14 +278,17 @@ class LongWire(TransformerFeed, Antenna):
             p = self.params
             if p.velocity_factor is not None:
                 hit = lines.measured_constants(freq_hz, velocity_factor=p.velocity_factor,
-                                               attenuation_db_per_100m=p.attenuation_db_per_100m, z0_ohm=p.z0)
+                                               attenuation_db_per_100m=p.attenuation, z0_ohm=p.z0)
             else:
-                hit = self._computed_line(freq_hz)
+                hit = self.computed_line(freq_hz)
             self._cache[freq_hz] = hit
         return hit
 
-    def _computed_line(self, freq_hz):
-        return lines.overhead_wire(freq_hz, radius_m=self.params.radius_m, height_m=self.wire_height_m(), ground=self.ground)
+    def computed_line(self, freq_hz: float, ground=None) -> lines.LineConstants:
+        """The model's line constants at a frequency over this antenna's ground, or over ``ground`` if given
+        (measured constants are ignored; nothing is cached)."""
+        return lines.overhead_wire(freq_hz, radius_m=self.params.radius_m, height_m=self.wire_height_m(),
+                                   ground=self.ground if ground is None else ground)
 
     def termination_ohm(self, freq_hz: float) -> float | None:
         """Far-end resistor [ohm]: as given, or |Z0| less the far ground rod for 'auto'; None if open."""
@@ -258,86 +311,39 @@ class LongWire(TransformerFeed, Antenna):
     def check_frequency(self, freq_hz):
         lo, hi = FREQ_RANGE_HZ
         if not lo <= freq_hz <= hi:
-            raise ValueError(f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's 0.1-30 MHz")
+            raise ValueError(f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's "
+                             f"{lo / 1e6:g}-{hi / 1e6:g} MHz")
         h_wl = self.wire_height_m() * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
             raise ValueError(f"height: {self.wire_height_m():g} m is {h_wl:.3f} wavelengths at {freq_hz / 1e6:g} MHz; "
                              f"the line model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths")
 
     # -- the response ---------------------------------------------------------------
-    def _currents(self, freq_hz, azimuth_rad, elevation_rad):
-        """Feed and far-end currents [A] per unit incident field, for each polarization."""
-        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
-        el_c = np.clip(el, 0.0, np.pi / 2)
-        k = 2 * np.pi * freq_hz / C_M_PER_S
-        L = self.length_m
-        ln = self.line(freq_hz)
-        g, z0 = ln.gamma, ln.z0
-        zf = self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm
-        zr = self.far_load_ohm(freq_hz)
-        r_v, r_h = reflection_coefficients(self.ground, el_c, freq_hz)
-        s = np.sin(el_c)
-        dphi = az - self.bearing_rad
-        c = np.cos(el_c) * np.cos(dphi)
-        a_v, a_h, lead = self._excitation(k, el_c, s, dphi, r_v, r_h)
-        jkc = 1j * k * c
-        e2 = np.exp(-2 * g * L)
-        eg = np.exp(-g * L)
-        z_minus = jkc - g
-        decay = np.exp(z_minus * L)                              # e^{(jkc - g) L}
-        phase_l = decay / eg                                     # e^{jkcL}
-        if g.real > 0:
-            j_plus = (decay - 1.0) / z_minus                     # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
-        else:  # a lossless line (measured constants): z_minus can vanish end-on
-            j_plus = _safe_expint(z_minus, L)
-        j_minus = (decay - e2) / (jkc + g)                       # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
-        i_cosh, i_sinh = 0.5 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
-        ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-        if self.needs_far_current:
-            k_plus = (phase_l - eg) / (jkc + g)                  # e^{-gL} int e^{jkcx} e^{gx} dx
-            k_minus = eg * j_plus                                # e^{-gL} int e^{jkcx} e^{-gx} dx
-            k_cosh, k_sinh = 0.5 * (k_plus + k_minus), 0.5 * (k_plus - k_minus)
-        out = {}
-        for pol, amp, v_lead in (("v", a_v, lead), ("h", a_h, np.zeros_like(lead))):
-            v_feed = v_lead
-            v_far = v_lead * phase_l if self.has_far_lead else np.zeros_like(v_lead)
-            if zr is None:
-                denom = z0 * ch + zf * sh
-                i_f = (amp * i_sinh + v_feed * sh) / denom
-                i_r = None
-            else:
-                denom = z0 * (zf + zr) * ch + (z0**2 + zf * zr) * sh
-                i_f = (amp * (z0 * i_cosh + zr * i_sinh) + v_feed * (z0 * ch + zr * sh) - v_far * z0 * eg) / denom
-                i_r = None
-                if self.needs_far_current:
-                    i_r = (amp * (z0 * k_cosh + zf * k_sinh) + v_feed * z0 * eg - v_far * (z0 * ch + zf * sh)) / denom
-            out[pol] = (i_f, i_r)
-        return out, el
-
-    def _excitation(self, k, el_c, s, dphi, r_v, r_h):
-        """Field along the wire (per polarization) and the down-lead EMF, per unit incident field."""
+    def _excitation(self, w: PlaneWave):
+        """(distributed EMF per pol., down-lead EMF) per unit incident field."""
         h = self.wire_height_m()
-        up = np.exp(1j * k * h * s)
-        down = np.conj(up)  # k h s is real
-        a_h = -np.sin(dphi) * (up + r_h * down)
-        a_v = -s * np.cos(dphi) * (up - r_v * down)
-        if self.has_leads:
-            # cos(Delta) * integral_0^h [e^{jkzs} + R_v e^{-jkzs}] dz; the two integrals are complex conjugates.
-            lead_up = _safe_expint(1j * k * s, h)
-            lead = np.cos(el_c) * (lead_up + r_v * np.conj(lead_up))
-        else:
-            lead = np.zeros_like(a_v)
+        a_v, a_h = field_along_wire(w, h)
+        lead = vertical_emf(w, 0.0, h) if self.has_leads else np.zeros_like(a_v)
         return a_v, a_h, lead
 
-    def _port_response(self, freq_hz, currents, el):
-        """Complex responses (vertical, horizontal) whose squared magnitudes are the realized partial gains."""
-        lam = C_M_PER_S / freq_hz
-        scale = np.sqrt(4 * np.pi / lam**2 * self.receiver_load_ohm(freq_hz) * ETA0_OHM)
-        return tuple(np.where(above_horizon(el), scale * currents[pol][0], 0.0) for pol in ("v", "h"))
+    def currents(self, freq_hz, azimuth_rad, elevation_rad, *, far_current: bool = False):
+        """Feed and far-end currents [A] per unit incident field: {"v": (I_F, I_R), "h": (I_F, I_R)}, and the wave."""
+        w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.bearing_rad, ground=self.ground)
+        a_v, a_h, lead = self._excitation(w)
+        zf = self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm
+        zr = self.far_load_ohm(freq_hz)
+        no_lead = np.zeros_like(lead)
+        out = {}
+        for pol, drive, v_lead in (("v", a_v, lead), ("h", a_h, no_lead)):
+            out[pol] = line_currents(w, line=self.line(freq_hz), length_m=self.length_m, z_feed=zf, z_far=zr,
+                                     drive=drive, v_feed=v_lead, v_far=v_lead if self.has_far_lead else no_lead,
+                                     far_current=far_current)
+        return out, w
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
-        currents, el = self._currents(freq_hz, azimuth_rad, elevation_rad)
-        return self._port_response(freq_hz, currents, el)
+        currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad)
+        load = self.receiver_load_ohm(freq_hz)
+        return tuple(port_response(freq_hz, currents[pol][0], load_ohm=load, elevation_rad=w.el) for pol in ("v", "h"))
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""
@@ -398,22 +404,20 @@ class Bog(LongWire):
     def wire_height_m(self) -> float:
         return self.params.height if self.params.depth == 0 else 0.0
 
-    def _computed_line(self, freq_hz):
+    def computed_line(self, freq_hz, ground=None):
         p = self.params
         a = p.radius_m
         b = a + p.insulation_thickness
-        if p.depth > 0:
-            return lines.insulated_on_ground(freq_hz, radius_m=a, insulation_radius_m=b,
-                                             insulation_permittivity=p.insulation_permittivity, ground=self.ground,
-                                             depth_m=p.depth)
+        where = {"depth_m": p.depth} if p.depth > 0 else {"height_m": max(p.height, b)}
         return lines.insulated_on_ground(freq_hz, radius_m=a, insulation_radius_m=b,
-                                         insulation_permittivity=p.insulation_permittivity, ground=self.ground,
-                                         height_m=max(p.height, b))
+                                         insulation_permittivity=p.insulation_permittivity,
+                                         ground=self.ground if ground is None else ground, **where)
 
     def check_frequency(self, freq_hz):
         lo, hi = FREQ_RANGE_HZ
         if not lo <= freq_hz <= hi:
-            raise ValueError(f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's 0.1-30 MHz")
+            raise ValueError(f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's "
+                             f"{lo / 1e6:g}-{hi / 1e6:g} MHz")
 
     def describe(self):
         return {**super().describe(), "depth_m": self.params.depth}
@@ -423,14 +427,11 @@ class Bog(LongWire):
 class TwoWire(LongWire):
     """Two-wire bidirectional long wire; see the module docstring."""
 
-    @property
-    def needs_far_current(self) -> bool:
-        return self.params.port == "reverse"
-
-    def _computed_line(self, freq_hz):
+    def computed_line(self, freq_hz, ground=None):
         p = self.params
         a_eq = np.sqrt(p.radius_m * p.spacing)
-        return lines.overhead_wire(freq_hz, radius_m=a_eq, height_m=p.height, ground=self.ground)
+        return lines.overhead_wire(freq_hz, radius_m=a_eq, height_m=p.height,
+                                   ground=self.ground if ground is None else ground)
 
     def termination_ohm(self, freq_hz):
         # The reflection transformer matches the common mode to the pair's differential line.
@@ -444,12 +445,13 @@ class TwoWire(LongWire):
         return float(np.exp(-2 * alpha * self.length_m))
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
-        currents, el = self._currents(freq_hz, azimuth_rad, elevation_rad)
         if self.params.port == "forward":
-            return self._port_response(freq_hz, currents, el)
-        lam = C_M_PER_S / freq_hz
-        scale = np.sqrt(4 * np.pi / lam**2 * self.termination_ohm(freq_hz) * ETA0_OHM * self.differential_loss(freq_hz))
-        return tuple(np.where(above_horizon(el), scale * currents[pol][1], 0.0) for pol in ("v", "h"))
+            return super().complex_response(freq_hz, azimuth_rad, elevation_rad)
+        currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad, far_current=True)
+        load = self.termination_ohm(freq_hz)
+        loss = self.differential_loss(freq_hz)
+        return tuple(port_response(freq_hz, currents[pol][1], load_ohm=load, elevation_rad=w.el, power_factor=loss)
+                     for pol in ("v", "h"))
 
     def mismatch(self, freq_hz):
         if self.params.port == "reverse":

@@ -40,17 +40,18 @@ from __future__ import annotations
 from typing import Literal
 
 import numpy as np
-from pydantic import Field
 
-from noisemodels.sphere import upper_hemisphere
 from snrgain import lines
-from snrgain.antennas.base import AntennaParams, register
-from snrgain.antennas.longwire import LongWire, _safe_expint
-from snrgain.fields import Bearing, GroundField, quantity
+from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
+from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, port_response, vertical_emf
+from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.ground import C_M_PER_S
 
+AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
+"""Resistors tried by termination = "auto" [ohm]."""
 
-class TerminatedLoopParams(AntennaParams):
+
+class TerminatedLoopParams(WireSize, AntennaParams):
     family: Literal["terminated-loop"]
     shape: Literal["rectangle", "triangle", "diamond"] = "rectangle"
     width: quantity("length", gt=0.0, le=60.0)
@@ -62,42 +63,29 @@ class TerminatedLoopParams(AntennaParams):
     auto_for: Literal["rdf", "front_to_back"] = "rdf"
     """What termination = "auto" maximises, toward the bearing at auto_elevation."""
     auto_elevation: quantity("angle", ge=0.0, le=np.pi / 2) = np.radians(20.0)
-    gauge: int | None = Field(default=None, ge=-3, le=40)
-    diameter: quantity("length", gt=0.0, le=0.02) | None = None
     coax: Literal[50, 75] = 75
     turns_ratio: float | Literal["auto"] = "auto"
     ground: GroundField | None = None
 
-    # the long-wire machinery reads these; a floating loop has none of them
-    velocity_factor: None = None
-    attenuation_db_per_100m: None = None
-    z0: None = None
 
-    @property
-    def radius_m(self) -> float:
-        if self.diameter is not None:
-            return self.diameter / 2
-        return lines.awg_diameter_m(14 if self.gauge is None else self.gauge) / 2
+def loop_line(freq_hz: float, *, radius_m: float, spacing_m: float) -> lines.LineConstants:
+    """The loop's top and bottom wires as a two-wire line in air: Z0 = 120 acosh(s / 2a), alpha = Re(Z_int) / Z0."""
+    z0 = 120.0 * np.arccosh(spacing_m / (2 * radius_m))
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    alpha = np.real(lines.wire_internal_impedance(freq_hz, radius_m)) / z0
+    gamma = complex(alpha, k)
+    return lines.LineConstants(float(freq_hz), gamma * z0, gamma / z0, gamma, complex(z0))
 
 
 @register("terminated-loop", TerminatedLoopParams,
           "small loop in a vertical plane with a termination resistor (rectangle, triangle, diamond)")
-class TerminatedLoop(LongWire):
-    has_leads = True
-    has_far_lead = True
-    terminated = True
+class TerminatedLoop(TransformerFeed, Antenna):
+    """See the module docstring."""
 
     def __init__(self, params: TerminatedLoopParams):
-        from snrgain.fields import make_ground
-
-        self.params = params
+        super().__init__(params)
         self.ground = make_ground(params.ground)
-        self.length_m = params.width
-        # The line runs from the feed side to the terminated side, which lies opposite the favoured bearing.
-        self.bearing_rad = params.bearing + np.pi
-        self.favoured_rad = params.bearing
-        self._cache = {}
-        self._auto_term: dict[float, float] = {}
+        self.width_m = params.width
         area = params.width * params.loop_height * (1.0 if params.shape == "rectangle" else 0.5)
         self.spacing_m = area / params.width
         center = params.height + params.loop_height / 2
@@ -105,13 +93,13 @@ class TerminatedLoop(LongWire):
         self.z_top = center + self.spacing_m / 2
         if self.spacing_m <= 4 * params.radius_m:
             raise ValueError("loop_height: the loop is too flat for its wire")
+        self._lines: dict[float, lines.LineConstants] = {}
+        self._auto_term: dict[float, float] = {}
 
     @property
-    def feed_rod_ohm(self) -> float:
-        return 0.0
-
-    def wire_height_m(self) -> float:
-        return self.z_top
+    def line_bearing_rad(self) -> float:
+        """The line runs from the feed side to the terminated side, which lies opposite the favoured bearing."""
+        return self.params.bearing + np.pi
 
     def check_frequency(self, freq_hz):
         lam = C_M_PER_S / freq_hz
@@ -119,15 +107,13 @@ class TerminatedLoop(LongWire):
             raise ValueError(f"width, loop_height: the loop is too large for the line model at {freq_hz / 1e6:g} MHz "
                              "(spacing up to 0.1 and width up to 0.5 wavelength)")
 
-    def _computed_line(self, freq_hz):
-        a = self.params.radius_m
-        z0 = 120.0 * np.arccosh(self.spacing_m / (2 * a))
-        k = 2 * np.pi * freq_hz / C_M_PER_S
-        alpha = np.real(lines.wire_internal_impedance(freq_hz, a)) / z0
-        gamma = complex(alpha, k)
-        return lines.LineConstants(float(freq_hz), gamma * z0, gamma / z0, gamma, complex(z0))
+    def line(self, freq_hz: float) -> lines.LineConstants:
+        if freq_hz not in self._lines:
+            self._lines[freq_hz] = loop_line(freq_hz, radius_m=self.params.radius_m, spacing_m=self.spacing_m)
+        return self._lines[freq_hz]
 
     def termination_ohm(self, freq_hz: float) -> float:
+        """The resistor opposite the feed [ohm]: as given, or the one "auto" chooses."""
         t = self.params.termination
         if t != "auto":
             return float(t)
@@ -137,47 +123,62 @@ class TerminatedLoop(LongWire):
 
     def _best_termination(self, freq_hz: float) -> float:
         """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation (coarse sweep)."""
+        from noisemodels.sphere import upper_hemisphere
+
         grid = upper_hemisphere(8)
         el = np.array([self.params.auto_elevation])
+        fwd_dir = np.array([self.params.bearing])
         best, best_r = -np.inf, None
-        for r in np.geomspace(100.0, 5000.0, 41):
-            self._auto_term[freq_hz] = float(r)
-            fwd = self.gain_linear(freq_hz, np.array([self.favoured_rad]), el)[0]
+        for r in AUTO_TERMINATIONS_OHM:
+            fwd = self._gain(freq_hz, fwd_dir, el, float(r))[0]
             if self.params.auto_for == "rdf":
-                g = self.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad)
+                g = self._gain(freq_hz, grid.azimuth_rad, grid.elevation_rad, float(r))
                 figure = fwd / (np.dot(g, grid.solid_angle_sr) / (2 * np.pi))
             else:
-                figure = fwd / max(self.gain_linear(freq_hz, np.array([self.favoured_rad + np.pi]), el)[0], 1e-300)
+                figure = fwd / max(self._gain(freq_hz, fwd_dir + np.pi, el, float(r))[0], 1e-300)
             if figure > best:
                 best, best_r = figure, float(r)
         return best_r
 
-    def far_load_ohm(self, freq_hz: float):
-        return self.termination_ohm(freq_hz)
+    def feed_point_impedance(self, freq_hz: float) -> complex:
+        return self._feed_impedance(freq_hz, self.termination_ohm(freq_hz))
 
-    def _excitation(self, k, el_c, s, dphi, r_v, r_h):
-        def along(z, pol):
-            up = np.exp(1j * k * z * s)
-            down = np.conj(up)
-            if pol == "h":
-                return -np.sin(dphi) * (up + r_h * down)
-            return -s * np.cos(dphi) * (up - r_v * down)
+    def _feed_impedance(self, freq_hz: float, termination_ohm: float) -> complex:
+        return lines.input_impedance(self.line(freq_hz), length_m=self.width_m, load_ohm=termination_ohm)
 
-        a_v = along(self.z_top, "v") - along(self.z_bottom, "v")
-        a_h = along(self.z_top, "h") - along(self.z_bottom, "h")
-        # EMF of a vertical side from the bottom wire to the top wire.
-        top = _safe_expint(1j * k * s, self.z_top)
-        bottom = _safe_expint(1j * k * s, self.z_bottom)
-        seg = top - bottom
-        lead = np.cos(el_c) * (seg + r_v * np.conj(seg))
-        return a_v, a_h, lead
+    def _load_ohm(self, freq_hz: float, termination_ohm: float) -> float:
+        """The coax referred through the transformer, whose 'auto' ratio follows the termination tried [ohm]."""
+        n = self.params.turns_ratio
+        if n == "auto":
+            n = np.sqrt(abs(self._feed_impedance(freq_hz, termination_ohm)) / self.params.coax)
+        return float(n) ** 2 * self.params.coax
+
+    def _response(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm: float):
+        w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.line_bearing_rad, ground=self.ground)
+        top_v, top_h = field_along_wire(w, self.z_top)
+        bottom_v, bottom_h = field_along_wire(w, self.z_bottom)
+        side = vertical_emf(w, self.z_bottom, self.z_top)  # each vertical side, bottom wire to top wire
+        load = self._load_ohm(freq_hz, termination_ohm)
+        out = []
+        for drive, v_side in ((top_v - bottom_v, side), (top_h - bottom_h, np.zeros_like(side))):
+            i_f, _ = line_currents(w, line=self.line(freq_hz), length_m=self.width_m, z_feed=load,
+                                   z_far=termination_ohm, drive=drive, v_feed=v_side, v_far=v_side)
+            out.append(port_response(freq_hz, i_f, load_ohm=load, elevation_rad=w.el))
+        return tuple(out)
+
+    def _gain(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm):
+        ev, eh = self._response(freq_hz, azimuth_rad, elevation_rad, termination_ohm)
+        return np.abs(ev) ** 2 + np.abs(eh) ** 2
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        return self._response(freq_hz, azimuth_rad, elevation_rad, self.termination_ohm(freq_hz))
+
+    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
+        return np.abs(ev) ** 2, np.abs(eh) ** 2
 
     def describe(self):
         p = self.params
-        out = {"family": self.family, "name": self.name, "shape": p.shape, "width_m": p.width,
-               "loop_height_m": p.loop_height, "height_m": p.height, "length_m": p.width,
-               "bearing_deg": float(np.degrees(self.favoured_rad)),
-               "ground": "perfect" if self.ground is None else self.ground.name}
-        if p.position is not None:
-            out["position_m"] = list(p.position)
-        return out
+        return {**super().describe(), "shape": p.shape, "width_m": p.width, "loop_height_m": p.loop_height,
+                "height_m": p.height, "length_m": p.width, "bearing_deg": float(np.degrees(p.bearing)),
+                "ground": "perfect" if self.ground is None else self.ground.name}

@@ -2,94 +2,19 @@
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import click
-import numpy as np
 
-from snrgain.cli.options import handle_errors, read_toml, readings_preamble, scenario_copy_options
-
-EXAMPLE = """\
-# Noise readings for snrgain locate: the same noise read on known antennas.
-frequency = "1.83 MHz"
-bandwidth = "500 Hz"
-ground = "average"
-
-[antenna.loop]               # a small loop turned by hand between readings
-family = "small-loop"
-width = "1 m"
-loop_height = "1 m"
-height = "1.5 m"
-
-[antenna.vertical]
-family = "vertical"
-height = "18 m"
-
-[[reading]]                  # invented readings, made for this example
-antenna = "loop"
-bearing = 0                  # the loop's plane points this way for this reading
-level = "-118.8 dBm"         # or S-units: "S7"
-[[reading]]
-antenna = "loop"
-bearing = 30
-level = "-115.4 dBm"
-[[reading]]
-antenna = "loop"
-bearing = 60
-level = "-111.9 dBm"
-[[reading]]
-antenna = "loop"
-bearing = 90
-level = "-112.8 dBm"
-[[reading]]
-antenna = "loop"
-bearing = 120
-level = "-115.7 dBm"
-[[reading]]
-antenna = "loop"
-bearing = 150
-level = "-122.9 dBm"
-[[reading]]
-antenna = "vertical"
-level = "S7"
-"""
-
-
-def load_readings(path: Path):
-    from snrgain.antennas import from_spec
-    from snrgain.locate import Reading
-    from snrgain.units import parse_power_dbm, parse_quantity
-
-    data = read_toml(path, allowed={"frequency", "bandwidth", "ground", "antenna", "reading"})
-    for key in ("frequency", "bandwidth", "antenna", "reading"):
-        if key not in data:
-            raise ValueError(f"{path}: {key} is missing (see --example)")
-    f = parse_quantity(data["frequency"], "frequency")
-    b = parse_quantity(data["bandwidth"], "frequency")
-    ground = data.get("ground", "average")
-    antennas = data["antenna"]
-    readings = []
-    for i, r in enumerate(data["reading"]):
-        where = f"{path}: reading[{i}]"
-        extra = set(r) - {"antenna", "bearing", "level"}
-        if extra:
-            raise ValueError(f"{where}: unknown key(s) {sorted(extra)}; allowed: antenna, bearing, level")
-        name = r.get("antenna")
-        if name not in antennas:
-            raise ValueError(f"{where}.antenna: {name!r} is not one of the [antenna.*] tables {sorted(antennas)}")
-        spec = {"ground": ground, **antennas[name]}
-        if "bearing" in r:
-            spec["bearing"] = r["bearing"]
-        try:
-            level = parse_power_dbm(r.get("level"))
-        except ValueError as exc:
-            raise ValueError(f"{where}.level: {exc}") from None
-        ant = from_spec(spec)
-        ant.check_frequency(f)
-        label = name + (f" {r['bearing']}" if "bearing" in r else "")
-        readings.append(Reading(ant, level, label))
-    return f, b, readings
+from snrgain.cli.options import (
+    check_output,
+    emit_json,
+    handle_errors,
+    readings_preamble,
+    scenario_copy_options,
+    write_output,
+)
+from snrgain.locate import EXAMPLE
 
 
 @click.command("locate")
@@ -112,35 +37,27 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     cannot tell front from back) and the level as Fa.  See --example for the file.
     """
     from snrgain import locate as loc
-    from snrgain.output import check_writable, write_whole
 
     if readings_preamble(example_text=EXAMPLE, example=example, readings=readings, scenario=scenario,
                          write_to=write_to):
         return
     for target in (plot, write_to):
-        if target is not None:
-            check_writable(target, overwrite=overwrite)
-    f, b, reads = load_readings(Path(readings))
-    res = loc.locate(reads, freq_hz=f, bandwidth_hz=b, n_sources=sources, fit_elevation=fit_elevation,
-                     elevation_deg=elevation)
-    out = {"ok": res.ok, "message": res.message, "frequency_hz": f, "bandwidth_hz": b,
-           "background_fa_db": res.background_fa_db, "residual_rms_db": res.residual_rms_db,
-           "sources": [vars(s) for s in res.sources],
-           "readings": [{"label": lab, "level_dbm": lv, "fitted_dbm": p}
-                        for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)]}
+        check_output(target, overwrite=overwrite)
+    data = loc.load_readings(Path(readings))
+    res = loc.locate(data.readings, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz, n_sources=sources,
+                     fit_elevation=fit_elevation, elevation_deg=elevation)
+    out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
     if plot is not None:
-        _plot(res, plot, overwrite=overwrite)
+        from snrgain import plots
+
+        plots.save(plots.located_sources(res), plot, overwrite=overwrite)
         out["plot"] = plot
     if scenario is not None:
-        if not res.ok:
-            raise RuntimeError("the fit failed, so no sources were written: " + res.message)
         text = Path(scenario).read_text(encoding="utf-8")
-        write_whole(write_to, text.rstrip("\n") + "\n" + scenario_blocks(res), overwrite=overwrite)
+        write_output(write_to, loc.with_sources(text, res), overwrite=overwrite)
         out["written"] = write_to
     if fmt == "json":
-        from snrgain.evaluate import _jsonable
-
-        click.echo(json.dumps(_jsonable(out), sort_keys=True, indent=2))
+        emit_json(out)
         return
     lines = [("fit: " if res.ok else "FIT FAILED: ") + res.message]
     for i, s in enumerate(res.sources):
@@ -156,46 +73,3 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     if scenario:
         lines.append(f"  wrote {write_to}")
     click.echo("\n".join(lines))
-
-
-def scenario_blocks(res) -> str:
-    blocks = []
-    for i, s in enumerate(res.sources):
-        note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
-        blocks.append(
-            f'\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n'
-            f'name = "located source {i + 1}"\n'
-            f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n")
-    return "".join(blocks)
-
-
-def _plot(res, path, *, overwrite):
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    fig = plt.figure(figsize=(6, 6))
-    ax = fig.add_subplot(projection="polar")
-    ax.set_theta_zero_location("N")
-    ax.set_theta_direction(-1)
-    ax.set_rlim(0, 1.05)
-    ax.set_yticklabels([])
-    for i, s in enumerate(res.sources):
-        th = np.radians(s.bearing_deg)
-        sig = np.radians(min(s.bearing_sigma_deg, 90))
-        ax.fill_between(np.linspace(th - sig, th + sig, 30), 0, 1, alpha=0.25, color=f"C{i}",
-                        label=f"source {i + 1}: {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg")
-        ax.plot([th, th], [0, 1], color=f"C{i}", lw=2.5)
-        if s.ambiguous_180:
-            ax.plot([th + np.pi, th + np.pi], [0, 1], color=f"C{i}", lw=1.5, ls="--", label="180 deg ambiguity")
-    ax.set_title(("Fitted noise direction" if res.ok else "Fit failed: direction not constrained")
-                 + f"\n(background Fa {res.background_fa_db:.0f} dB, residual {res.residual_rms_db:.1f} dB)", pad=18)
-    ax.legend(loc="lower left", bbox_to_anchor=(-0.1, -0.15), fontsize=9)
-    fig.tight_layout()
-    from snrgain.plots import save
-
-    try:
-        save(fig, path, overwrite=overwrite)
-    finally:
-        plt.close(fig)

@@ -19,11 +19,11 @@ def starter_text() -> str:
 @handle_errors
 def new(path, overwrite):
     """Write a commented starter scenario to PATH ('-' for standard output)."""
-    from snrgain.output import write_whole
+    from snrgain.files import write_atomic
 
     text = starter_text()
     if path == "-":
         click.echo(text, nl=False)
         return
-    write_whole(path, text, overwrite=overwrite)
+    write_atomic(path, text, overwrite=overwrite)
     click.echo(f"wrote {path}; edit it, then run: snrgain check {path}", err=True)

@@ -2,12 +2,19 @@
 
 from __future__ import annotations
 
-import json
-
 import click
 import numpy as np
 
-from snrgain.cli.options import handle_errors, overwrite_option, p372_dir_option
+from snrgain.cli.options import (
+    check_output,
+    emit_json,
+    handle_errors,
+    json_text,
+    overwrite_option,
+    p372_dir_option,
+    write_output,
+)
+from snrgain.constants import MAN_MADE_CHOICES
 
 
 @click.command("noise")
@@ -15,7 +22,7 @@ from snrgain.cli.options import handle_errors, overwrite_option, p372_dir_option
 @click.option("--lon", "lon", type=click.FloatRange(-180, 360), required=True, help="Site longitude [deg, east positive].")
 @click.option("--month", type=click.IntRange(1, 12), required=True, help="Month, 1-12.")
 @click.option("--frequency", required=True, help="Frequency with its unit, e.g. '1.83 MHz'.")
-@click.option("--environment", type=click.Choice(["city", "residential", "rural", "quiet rural", "none"]),
+@click.option("--environment", type=click.Choice(MAN_MADE_CHOICES),
               default="residential", show_default=True, help="Man-made noise category of ITU-R P.372.")
 @click.option("--galactic/--no-galactic", default=True, show_default=True, help="Include galactic noise.")
 @click.option("--hour", type=click.FloatRange(0, 24, max_open=True), default=4.0, show_default=True,
@@ -37,30 +44,23 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
     import os
 
     from noisemodels.p372_maps import ENV_VAR
-    from snrgain import output as out
+    from snrgain.constants import check_frequency_hz
     from snrgain.noiseday import noise_over_day
     from snrgain.units import parse_quantity
 
     data_dir = os.environ.get(ENV_VAR) or p372_dir
-    if output is not None:
-        out.check_writable(output, overwrite=overwrite)
+    check_output(output, overwrite=overwrite)
     try:
-        f = parse_quantity(frequency, "frequency")
+        f = check_frequency_hz(parse_quantity(frequency, "frequency"))
     except ValueError as exc:
         raise ValueError(f"--frequency: {exc}") from None
-    if not 0.1e6 <= f <= 30e6:
-        raise ValueError(f"--frequency must be between 0.1 and 30 MHz; got {frequency!r}")
     data = noise_over_day(lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic,
                           data_dir=data_dir, hour=hour)
-    from snrgain.evaluate import _jsonable
-
-    if fmt == "json" or output is not None:
-        text = json.dumps(_jsonable(data), sort_keys=True, indent=2, allow_nan=False) + "\n"
-        if output is None:
-            click.echo(text, nl=False)
-        else:
-            out.write_whole(output, text, overwrite=overwrite)
-            click.echo(f"wrote {output}", err=True)
+    if output is not None:
+        write_output(output, json_text(data), overwrite=overwrite)
+        return
+    if fmt == "json":
+        emit_json(data)
         return
     _print_table(data)
 

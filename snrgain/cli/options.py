@@ -7,13 +7,14 @@ Diagnostics go to stderr, results to stdout.  Exit codes: 2 for bad input
 from __future__ import annotations
 
 import functools
+import json
 import sys
-
 from pathlib import Path
 
 import click
 
 from snrgain.antennas import SpecError
+from snrgain.files import OutputExistsError
 from snrgain.scenario import ScenarioError
 from snrgain.units import QuantityError
 
@@ -45,6 +46,8 @@ def handle_errors(fn):
 
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
             sys.exit(EXIT_FAILURE)
+        except OutputExistsError as exc:
+            fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
         except ScenarioError as exc:
             n = len(exc.problems)
             fail(f"invalid scenario ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)
@@ -56,6 +59,7 @@ def handle_errors(fn):
             fail(f"failed: {exc}", EXIT_FAILURE)
 
     return wrapper
+
 
 p372_dir_option = click.option(
     "--p372-dir", type=click.Path(file_okay=False, path_type=str), default=None,
@@ -91,17 +95,28 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
     return False
 
 
-def read_toml(path: Path, *, allowed: set[str]) -> dict:
-    """A readings file as a dict; errors name the file (cannot read, not TOML, unknown sections)."""
-    import tomllib
+def emit_json(data) -> None:
+    """Print a JSON-ready structure (numpy values converted, sorted keys, non-finite numbers as null)."""
+    click.echo(json_text(data), nl=False)
 
-    try:
-        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise ValueError(f"{path}: cannot read ({exc.strerror or exc})") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise ValueError(f"{path}: not valid TOML: {exc}") from None
-    unknown = set(data) - allowed
-    if unknown:
-        raise ValueError(f"{path}: unknown key(s) {sorted(unknown)}; allowed: {', '.join(sorted(allowed))}")
-    return data
+
+def json_text(data) -> str:
+    from snrgain.results import jsonable
+
+    return json.dumps(jsonable(data), sort_keys=True, indent=2, allow_nan=False) + "\n"
+
+
+def write_output(path, content, *, overwrite: bool) -> None:
+    """Write a file whole or not at all and say so on stderr."""
+    from snrgain.files import write_atomic
+
+    write_atomic(path, content, overwrite=overwrite)
+    click.echo(f"wrote {path}", err=True)
+
+
+def check_output(path, *, overwrite: bool) -> None:
+    """Refuse, before any work, an output file that exists (without --overwrite) or has no folder."""
+    if path is not None:
+        from snrgain.files import check_writable
+
+        check_writable(path, overwrite=overwrite)

@@ -4,7 +4,15 @@ from __future__ import annotations
 
 import click
 
-from snrgain.cli.options import handle_errors, nside_option, overwrite_option, p372_dir_option, scenario_argument
+from snrgain.cli.options import (
+    check_output,
+    handle_errors,
+    nside_option,
+    overwrite_option,
+    p372_dir_option,
+    scenario_argument,
+    write_output,
+)
 
 
 @click.command("rank")
@@ -29,8 +37,7 @@ def rank(scenario, fmt, output, overwrite, nside, p372_dir):
     from snrgain import output as out
     from snrgain.evaluate import evaluate
 
-    if output is not None:
-        out.check_writable(output, overwrite=overwrite)
+    check_output(output, overwrite=overwrite)
     results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
@@ -57,5 +64,4 @@ def rank(scenario, fmt, output, overwrite, nside, p372_dir):
     if output is None:
         click.echo(text, nl=False)
     else:
-        out.write_whole(output, text, overwrite=overwrite)
-        click.echo(f"wrote {output}", err=True)
+        write_output(output, text, overwrite=overwrite)

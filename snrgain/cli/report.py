@@ -6,7 +6,15 @@ from pathlib import Path
 
 import click
 
-from snrgain.cli.options import handle_errors, nside_option, overwrite_option, p372_dir_option, scenario_argument
+from snrgain.cli.options import (
+    check_output,
+    handle_errors,
+    nside_option,
+    overwrite_option,
+    p372_dir_option,
+    scenario_argument,
+    write_output,
+)
 
 
 @click.command("report")
@@ -24,14 +32,11 @@ def report(scenario, output, overwrite, nside, p372_dir):
     """
     from snrgain import report as rep
     from snrgain.evaluate import evaluate
-    from snrgain.output import check_writable, write_whole
-
-    check_writable(output, overwrite=overwrite)
+    check_output(output, overwrite=overwrite)
     results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
-    write_whole(output, rep.render(results), overwrite=overwrite)
-    click.echo(f"wrote {output}", err=True)
+    write_output(output, rep.render(results), overwrite=overwrite)
 
 
 @click.command("figures")
@@ -68,11 +73,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
             jobs.append((d / f"{name}.{fmt}", plots.FIGURES[name], {}))
     existing = [str(p) for p, _, _ in jobs if p.exists()]
     if existing and not overwrite:
-        raise FileExistsError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
-    import matplotlib.pyplot as plt
-
+        raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
     for path, fn, kw in jobs:
-        fig = fn(results, **kw)
-        plots.save(fig, path, overwrite=overwrite)
-        plt.close(fig)
+        plots.save(fn(results, **kw), path, overwrite=overwrite)
         click.echo(f"wrote {path}", err=True)

@@ -1,0 +1,39 @@
+"""Sentences for the user, from the data the library returns (:class:`snrgain.results.Notice`).
+
+The library records what happened as codes and numbers; this module, at the
+edge, says it in words for the terminal, the report and the JSON warnings.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from snrgain.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
+from snrgain.results import Notice
+
+
+def notice_text(n: Notice) -> str:
+    """One notice as a sentence (prefixed by the antenna's name where it concerns one)."""
+    v = n.values
+    if n.code == "receiver-limited":
+        return (f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
+                f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
+                f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"]))
+    if n.code == "man-made-extrapolated":
+        return (f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "
+                "is extrapolated")
+    detail = ", ".join(f"{k} = {val}" for k, val in sorted(v.items()))
+    return f"{n.antenna + ': ' if n.antenna else ''}{n.code}" + (f" ({detail})" if detail else "")
+
+
+def preamp_advice_text(gain_db: float, position: str | None) -> str:
+    """What preamplifier would meet the margin target, in words (NaN gain: none would)."""
+    if gain_db is None or not np.isfinite(gain_db):
+        return ("No preamplifier gain reaches the target at every hour; a quieter preamplifier, a shorter or "
+                "lower-loss feed line, or a quieter receiver would.")
+    if position == "as placed":
+        which = "the chain's preamplifier"
+    else:
+        where = "before the receiver" if position == "receiver" else "at the antenna, after the transformer"
+        which = f"a preamplifier of {SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
+    return f"About {gain_db:.0f} dB of gain from {which} would reach the target."

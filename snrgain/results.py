@@ -1,0 +1,224 @@
+"""What :func:`snrgain.evaluate` returns: numbers only, with units in the field names.
+
+:class:`Results` holds the resolved site, band and times, the noise sky
+(:class:`snrgain.noise.SkySeries`), one :class:`AntennaResult` for the
+reference and for each candidate (ranked, best first), the pattern cuts the
+figures draw, and :class:`Notice` records (a code and its values; the
+sentences are written at the edge, :mod:`snrgain.messages`).
+:meth:`Results.to_dict` is the JSON output.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from snrgain.noise import SkySeries
+
+SCHEMA_VERSION = "1"
+
+
+@dataclass
+class AntennaResult:
+    """Numbers for one antenna.  Array axes: [target, month, hour] or [month, hour].
+
+    Attributes
+    ----------
+    name, family, parameters : what the antenna is (parameters with SI units in keys)
+    gain_dbi : weighted total gain toward each target [dBi], shape (targets,)
+    mean_gain_dbi : gain averaged over the upper hemisphere [dBi]
+    rdf_db : receiving directivity factor per target [dB]
+    front_to_back_db : per target, at the target's mean elevation [dB]
+    snr_gain_db : SNR gain over the reference [dB], shape (targets, months, hours)
+    snr_gain_atmospheric_deciles_db : the same with atmospheric noise at its P.372 upper and lower deciles
+        [dB], shape (2, targets, months, hours); None without atmospheric noise
+    noise_dbm : external noise delivered through the chain to the receiver input in the
+        band's bandwidth [dBm], shape (months, hours)
+    noise_by_component_dbm : the same per noise component [dBm]
+    margin_db : noise_dbm minus the chain's noise floor at the receiver input [dB]
+    receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
+    preamp_gain_needed_db : preamplifier gain that brings the margin to the target (the chain's own
+        preamplifier, or a suggested one of 3 dB noise figure before the receiver); 0 if already met,
+        NaN if no gain can [dB]
+    preamp_position : where that preamplifier goes: "receiver" (before the receiver), "antenna" (after the
+        transformer, where a lossy feed line follows), "as placed" (the chain's own), None if no gain helps
+    summary_snr_gain_db : mean of snr_gain_db (weighted over targets) [dB]
+    worst_snr_gain_db : minimum of snr_gain_db [dB]
+    receiver_limited : True if margin_db falls below the margin target at any hour
+    chain : noise_figure_db, gain_db, noise_floor_dbm (at the receiver input), stages
+    """
+
+    name: str
+    family: str
+    parameters: dict[str, Any]
+    gain_dbi: np.ndarray
+    mean_gain_dbi: float
+    rdf_db: np.ndarray
+    front_to_back_db: np.ndarray
+    snr_gain_db: np.ndarray
+    noise_dbm: np.ndarray
+    noise_by_component_dbm: dict[str, np.ndarray]
+    margin_db: np.ndarray
+    receiver_snr_loss_db: np.ndarray
+    preamp_gain_needed_db: np.ndarray
+    preamp_position: str | None
+    summary_snr_gain_db: float
+    worst_snr_gain_db: float
+    receiver_limited: bool
+    chain: dict[str, Any] = field(default_factory=dict)
+    snr_gain_atmospheric_deciles_db: np.ndarray | None = field(default=None, repr=False)
+
+    def __repr__(self) -> str:
+        return (f"AntennaResult({self.name!r}, {self.family}, SNR gain mean {self.summary_snr_gain_db:+.1f} dB, "
+                f"worst {self.worst_snr_gain_db:+.1f} dB)")
+
+
+@dataclass(frozen=True)
+class Notice:
+    """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
+
+    Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
+    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz).
+    """
+
+    code: str
+    antenna: str | None = None
+    values: dict[str, Any] = field(default_factory=dict)
+
+
+@dataclass
+class PatternCuts:
+    """Total gain [dBi] on an azimuth cut at each target's mean elevation and on an elevation cut toward each
+    target's bearing: antenna name -> array (targets, cut points)."""
+
+    azimuth_deg: np.ndarray
+    elevation_deg: np.ndarray
+    azimuth: dict[str, np.ndarray]
+    elevation: dict[str, np.ndarray]
+
+
+@dataclass(repr=False)
+class Results:
+    """Everything ``evaluate`` computed.  ``candidates`` are ranked, best first."""
+
+    source: str
+    site: dict[str, Any]
+    freq_hz: float
+    bandwidth_hz: float
+    months: list[int]
+    utc_hours: list[float]
+    targets: list[dict[str, Any]]
+    noise: SkySeries
+    reference: AntennaResult
+    candidates: list[AntennaResult]
+    receiver: dict[str, Any]
+    nside: int
+    notices: list[Notice] = field(default_factory=list)
+    cuts: PatternCuts | None = None
+    lot_m: list[tuple[float, float]] | None = None
+    local_sources: list[dict[str, Any]] = field(default_factory=list)
+
+    @property
+    def antennas(self) -> list[AntennaResult]:
+        """The reference, then the candidates in rank order."""
+        return [self.reference, *self.candidates]
+
+    @property
+    def warnings(self) -> list[str]:
+        """The notices as sentences."""
+        from snrgain.messages import notice_text
+
+        return [notice_text(n) for n in self.notices]
+
+    def __repr__(self) -> str:
+        best = self.candidates[0] if self.candidates else None
+        head = (f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.targets)} target(s), "
+                f"{len(self.months)} month(s) x {len(self.utc_hours)} hour(s), reference {self.reference.name!r}, "
+                f"{len(self.candidates)} candidate(s)")
+        if best is not None:
+            head += f"; first: {best.name!r} {best.summary_snr_gain_db:+.1f} dB"
+        return head + (f"; {len(self.notices)} notice(s))" if self.notices else ")")
+
+    def to_dict(self) -> dict[str, Any]:
+        """A JSON-ready dict (numbers as floats and lists; units in the keys)."""
+        noise = self.noise
+        return jsonable({
+            "schema_version": SCHEMA_VERSION,
+            "scenario": self.source,
+            "site": self.site,
+            "frequency_hz": self.freq_hz,
+            "bandwidth_hz": self.bandwidth_hz,
+            "months": self.months,
+            "utc_hours": self.utc_hours,
+            "targets": self.targets,
+            "noise": {
+                "axes": ["month", "utc_hour"],
+                "components": noise.components,
+                "total_fa_db": noise.total_fa_db,
+                "total_upper_decile_db": noise.total_du_db,
+                "total_lower_decile_db": noise.total_dl_db,
+                "median_power_sum_fa_db": noise.median_power_sum_fa_db,
+                "daytime": noise.daytime,
+            },
+            "receiver": self.receiver,
+            "nside": self.nside,
+            "reference": _antenna_dict(self.reference),
+            "ranking": [_antenna_dict(c) | {"rank": i + 1} for i, c in enumerate(self.candidates)],
+            "local_sources": self.local_sources,
+            "warnings": self.warnings,
+        })
+
+
+def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
+    return {
+        "name": a.name,
+        "family": a.family,
+        "parameters": a.parameters,
+        "summary_snr_gain_db": a.summary_snr_gain_db,
+        "worst_snr_gain_db": a.worst_snr_gain_db,
+        "snr_gain_db": {"axes": ["target", "month", "utc_hour"], "values": a.snr_gain_db},
+        "gain_toward_target_dbi": a.gain_dbi,
+        "mean_gain_dbi": a.mean_gain_dbi,
+        "rdf_db": a.rdf_db,
+        "front_to_back_db": a.front_to_back_db,
+        "noise_dbm": {"axes": ["month", "utc_hour"], "values": a.noise_dbm},
+        "noise_by_component_dbm": a.noise_by_component_dbm,
+        "margin_db": {"axes": ["month", "utc_hour"], "values": a.margin_db},
+        "receiver_snr_loss_db": {"axes": ["month", "utc_hour"], "values": a.receiver_snr_loss_db},
+        "preamp_gain_needed_db": {"axes": ["month", "utc_hour"], "values": a.preamp_gain_needed_db},
+        "preamp_position": a.preamp_position,
+        "receiver_limited": a.receiver_limited,
+        "chain": a.chain,
+    }
+
+
+def jsonable(x):
+    """``x`` with numpy arrays and scalars turned into lists, floats, ints and bools; non-finite floats as None.
+
+    >>> jsonable({"a": np.array([1.0, np.inf]), "b": np.int64(2)})
+    {'a': [1.0, None], 'b': 2}
+    """
+    if isinstance(x, dict):
+        return {str(k): jsonable(v) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [jsonable(v) for v in x]
+    if isinstance(x, np.ndarray):
+        return jsonable(x.tolist())
+    if isinstance(x, (np.bool_, bool)):
+        return bool(x)
+    if isinstance(x, np.integer):
+        return int(x)
+    if isinstance(x, (float, np.floating)):
+        v = float(x)
+        return v if np.isfinite(v) else None
+    return x
+
+
+def rank(candidates: list[AntennaResult]) -> list[AntennaResult]:
+    """Candidates best first, by the weighted mean SNR gain over targets and hours."""
+    return sorted(candidates, key=lambda r: -r.summary_snr_gain_db)
+
+
+__all__ = ["Results", "AntennaResult", "Notice", "PatternCuts", "SCHEMA_VERSION", "jsonable", "rank"]
