@@ -28,6 +28,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from snrgain import lines
+from snrgain.constants import WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S, Ground
 from snrgain.readings import parse_impedance, read_toml
 from snrgain.units import parse_quantity
@@ -227,9 +228,9 @@ def load_readings(path: str | Path) -> WireReadings:
     spec = dict(data["wire"])
     spec.setdefault("family", "bog")
     ant = from_spec(spec)
-    if not hasattr(ant, "computed_line"):
-        raise ValueError(f"{path}: wire.family: calibration needs a long-wire family (beverage, unterminated, bog, "
-                         f"two-wire), not {ant.family!r}")
+    if ant.family not in WIRE_FAMILIES:
+        raise ValueError(f"{path}: wire.family: calibration needs a long-wire family ({', '.join(WIRE_FAMILIES)}), "
+                         f"not {ant.family!r}")
     out = WireReadings(ant)
     for i, r in enumerate(data.get("open_short", [])):
         extra = set(r) - {"frequency", "open", "short"}

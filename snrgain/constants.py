@@ -14,6 +14,10 @@ FREQ_RANGE_HZ = (0.1e6, 30e6)
 MAN_MADE_CHOICES: tuple[str, ...] = (*MAN_MADE_CATEGORIES, "none")
 """Man-made noise environments: the ITU-R P.372 Table 1 categories, or none."""
 
+WIRE_FAMILIES: tuple[str, ...] = ("beverage", "bog", "unterminated", "two-wire")
+"""The long-wire families (transmission-line model) the wire design report and calibration cover."""
+
+
 def check_frequency_hz(freq_hz: float, what: str = "frequency") -> float:
     """Return ``freq_hz`` if it lies in :data:`FREQ_RANGE_HZ`; else raise ValueError naming ``what``."""
     lo, hi = FREQ_RANGE_HZ

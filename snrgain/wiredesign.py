@@ -23,6 +23,8 @@ import numpy as np
 from noisemodels.sphere import Directions, upper_hemisphere
 from snrgain import lines, snr
 from snrgain.antennas import from_spec
+from snrgain.antennas.base import variant
+from snrgain.constants import WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S
 from snrgain.targets import TargetDirections, from_bearing
 
@@ -56,21 +58,16 @@ def front_to_back_db(antenna, freq_hz: float, target: TargetDirections) -> float
                                 bearing_rad=target.bearing_rad, elevation_rad=target.mean_elevation_rad)
 
 
-def _with(spec: dict, **changes) -> dict:
-    out = dict(spec)
-    out.update(changes)
-    return out
-
-
 def sweep_rdf(spec: dict, freq_hz: float, *, lengths_m, terminations_ohm, bearings_deg, target=None,
               nside: int = 32) -> np.ndarray:
     """RDF [dB] for every (length, termination, bearing) design; shape (lengths, terminations, bearings)."""
     grid = upper_hemisphere(nside)
+    base = from_spec(spec)
     out = np.empty((len(lengths_m), len(terminations_ohm), len(bearings_deg)))
     for i, length in enumerate(lengths_m):
         for j, term in enumerate(terminations_ohm):
             for k, bearing in enumerate(bearings_deg):
-                ant = from_spec(_with(spec, length=f"{length} m", termination=float(term), bearing=float(bearing)))
+                ant = variant(base, length=float(length), termination=float(term), bearing=float(np.radians(bearing)))
                 tgt = _target(target, np.radians(bearing))
                 out[i, j, k] = rdf_db(ant, freq_hz, tgt, grid)
     return out
@@ -100,7 +97,7 @@ def best_length(spec: dict, freq_hz: float, *, target=None, max_length_m: float 
     top = max_length_m or min(3000.0, 3.0 * (rule if np.isfinite(rule) else 3 * lam))
     grid = upper_hemisphere(nside)
     lengths = np.linspace(0.1 * lam, top, steps)
-    rdf = np.array([rdf_db(from_spec(_with(spec, length=f"{x} m")), freq_hz, tgt, grid) for x in lengths])
+    rdf = np.array([rdf_db(variant(ant, length=float(x)), freq_hz, tgt, grid) for x in lengths])
     i = int(np.argmax(rdf))
     return LengthAdvice(rule, float(lengths[i]), float(rdf[i]), lengths, rdf)
 
@@ -124,14 +121,14 @@ def best_termination(spec: dict, freq_hz: float, *, target=None, metric: str = "
     """The termination of highest RDF or front-to-back for the target, beside |Z0|."""
     if metric not in ("rdf", "front_to_back"):
         raise ValueError(f"metric must be 'rdf' or 'front_to_back', got {metric!r}")
-    ant = from_spec(_with(spec, termination="auto"))
+    ant = variant(from_spec(spec), termination="auto")
     textbook = ant.termination_ohm(freq_hz)
     tgt = _target(target, ant.bearing_rad)
     values = np.asarray(values_ohm if values_ohm is not None else np.geomspace(50.0, 3000.0, 61))
     grid = upper_hemisphere(nside)
     fig = []
     for r in values:
-        a = from_spec(_with(spec, termination=float(r)))
+        a = variant(ant, termination=float(r))
         fig.append(rdf_db(a, freq_hz, tgt, grid) if metric == "rdf" else front_to_back_db(a, freq_hz, tgt))
     fig = np.array(fig)
     i = int(np.argmax(fig))
@@ -161,3 +158,68 @@ def transformer(antenna, freq_hz: float) -> TransformerAdvice:
 
     chosen = antenna.turns_ratio(freq_hz)
     return TransformerAdvice(z, zc, exact, practical, loss(practical), chosen, loss(chosen))
+
+
+SAFETY = ("Safety: keep the wire and its supports well clear of power lines; ground and disconnect the feed line "
+          "when storms are near; have buried utilities located before driving ground rods; mark or bury wires "
+          "on the ground where people walk. Follow local codes.")
+
+
+def wire_spec(family: str, *, length, height=None, termination="auto", feed_ground="20 ohm", far_ground="20 ohm",
+              gauge: int | None = None, diameter=None, ground="average", conductivity=None, permittivity=None,
+              coax: int = 75) -> dict:
+    """An antenna spec for a long wire from design options (units as in scenario files).
+
+    The far-end keys go only to the families that have them; ``height`` defaults to 2.5 m (2 cm, the axis
+    height, for a BOG); ``conductivity`` with ``permittivity`` replaces a named ``ground``.
+    """
+    if family not in WIRE_FAMILIES:
+        raise ValueError(f"family must be one of {', '.join(WIRE_FAMILIES)}; got {family!r}")
+    spec = {"family": family, "length": length, "coax": int(coax), "feed_ground": feed_ground,
+            "height": height or ("2 cm" if family == "bog" else "2.5 m")}
+    if family != "unterminated":
+        spec["far_ground"] = far_ground
+    if family in ("beverage", "bog"):
+        spec["termination"] = termination
+    elif termination != "auto":
+        raise ValueError(f"termination: the {family} family sets its own far end; leave the termination out")
+    if gauge is not None:
+        spec["gauge"] = gauge
+    if diameter is not None:
+        spec["diameter"] = diameter
+    if conductivity is not None or permittivity is not None:
+        if conductivity is None or permittivity is None:
+            raise ValueError("conductivity and permittivity go together")
+        spec["ground"] = {"conductivity": conductivity, "permittivity": permittivity}
+    else:
+        spec["ground"] = ground
+    return spec
+
+
+def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_ELEVATION_RAD) -> dict:
+    """Design figures for a long wire at one frequency (JSON-ready, SI units in the keys).
+
+    The line's constants; the traditional length rule beside the model's best length for RDF along the wire at
+    ``elevation_rad``; this wire's RDF, front-to-back and forward gain; the textbook termination (|Z0|) beside
+    those of best RDF and best front-to-back; the transformer that matches the feed to the coax.
+    """
+    ant = from_spec(spec)
+    ant.check_frequency(freq_hz)
+    target = along_wire_target(0.0, elevation_rad)
+    length_adv = best_length(spec, freq_hz, target=target)
+    out = {"antenna": ant.describe(), **ant.design(freq_hz), "target_elevation_deg": float(np.degrees(elevation_rad)),
+           "length_rule_m": length_adv.rule_m, "best_length_m": length_adv.best_m,
+           "best_length_rdf_db": length_adv.best_rdf_db,
+           "rdf_db": rdf_db(ant, freq_hz, target, upper_hemisphere(32)),
+           "front_to_back_db": front_to_back_db(ant, freq_hz, target),
+           "forward_gain_dbi": float(ant.gain_dbi(freq_hz, 0.0, np.degrees(elevation_rad))),
+           "safety": SAFETY}
+    if spec["family"] in ("beverage", "bog"):
+        t_rdf = best_termination(spec, freq_hz, target=target, metric="rdf")
+        t_fb = best_termination(spec, freq_hz, target=target, metric="front_to_back")
+        out.update(textbook_termination_ohm=t_rdf.textbook_ohm, best_rdf_termination_ohm=t_rdf.best_ohm,
+                   best_front_to_back_termination_ohm=t_fb.best_ohm)
+    tr = transformer(ant, freq_hz)
+    out.update(exact_turns_ratio=tr.exact_turns_ratio, practical_turns_ratio=tr.practical_turns_ratio,
+               practical_mismatch_loss_db=tr.practical_mismatch_loss_db)
+    return out

@@ -225,3 +225,20 @@ def test_terminated_loop_auto_for_front_to_back():
     f_b = fb.gain_dbi(F, 0, 20) - fb.gain_dbi(F, 180, 20)
     f_r = rdf.gain_dbi(F, 0, 20) - rdf.gain_dbi(F, 180, 20)
     assert f_b >= f_r - 1e-9 and f_b > 25
+
+
+@pytest.mark.parametrize("bearing_deg", [30.0, 135.0, 320.0])
+def test_phased_verticals_auto_steering_points_along_the_bearing(bearing_deg):
+    # Regression: the shorthand once handed its bearing (radians) to the array as a bare number, read as degrees,
+    # so an auto-steered pair pointed near 0-6 deg whatever the bearing.  End-fire delays (position projected on
+    # the bearing over c) must put the azimuth maximum at the bearing (textbook end-fire pair, e.g. Kraus,
+    # "Antennas", 2nd ed., Section 4-6).
+    u = np.array([np.sin(np.radians(bearing_deg)), np.cos(np.radians(bearing_deg))])
+    spacing = C_M_PER_S / 1.83e6 / 4
+    ant = from_spec({"family": "phased-verticals", "positions": [[0, 0], list(spacing * u)], "height": "5 m",
+                     "bearing": bearing_deg, "ground": "average"})
+    az = np.arange(0.0, 360.0, 1.0)
+    g = ant.gain_dbi(1.83e6, az, 10.0)
+    peak = az[np.argmax(g)]
+    assert abs((peak - bearing_deg + 180) % 360 - 180) <= 2.0
+    assert ant.gain_dbi(1.83e6, bearing_deg, 10.0) - ant.gain_dbi(1.83e6, bearing_deg + 180, 10.0) > 15

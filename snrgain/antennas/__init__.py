@@ -1,9 +1,19 @@
-"""Antenna families.  ``from_spec(dict) -> Antenna``; ``Antenna.gain_dbi(freq_hz, azimuth_deg, elevation_deg)``.
+"""Antenna families.  ``from_spec(dict) -> Antenna`` (units as in scenario files) or ``from_si(family, **SI values)``;
+``Antenna.gain_dbi(freq_hz, azimuth_deg, elevation_deg)``.
 
 Importing this package registers every family in :data:`FAMILIES`.
 """
 
-from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, from_spec, register, validate_spec
+from snrgain.antennas.base import (
+    FAMILIES,
+    Antenna,
+    AntennaParams,
+    SpecError,
+    from_si,
+    from_spec,
+    register,
+    validate_spec,
+)
 from snrgain.antennas import array, isotropic, longwire, smallloop, tabulated, termloop, vertical, wires  # noqa: F401
 
-__all__ = ["FAMILIES", "Antenna", "AntennaParams", "SpecError", "from_spec", "register", "validate_spec"]
+__all__ = ["FAMILIES", "Antenna", "AntennaParams", "SpecError", "from_si", "from_spec", "register", "validate_spec"]

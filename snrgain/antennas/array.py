@@ -35,10 +35,10 @@ from __future__ import annotations
 from typing import Any, Literal
 
 import numpy as np
-from pydantic import Field, model_validator
+from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
 
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, register
-from snrgain.fields import Bearing, GroundField, PlanPoint, quantity
+from snrgain.fields import SI_CONTEXT, Bearing, GroundField, PlanPoint, quantity
 from snrgain.ground import C_M_PER_S
 from snrgain.units import parse_quantity
 
@@ -51,6 +51,13 @@ class ArrayParams(AntennaParams):
     steering: Literal["auto", "given"] = "auto"
     bearing: Bearing = 0.0
     ground: GroundField | None = None
+    _si: bool = PrivateAttr(default=False)
+
+    @model_validator(mode="after")
+    def _remember_units(self, info: ValidationInfo):
+        # The elements are validated when the array is built, in the same mode (SI floats or unit strings).
+        self._si = bool(isinstance(info.context, dict) and info.context.get("si"))
+        return self
 
 
 class PhasedVerticalsParams(AntennaParams):
@@ -61,7 +68,7 @@ class PhasedVerticalsParams(AntennaParams):
     top_loading: quantity("length", ge=0.0, le=60.0) = 0.0
     steering: Literal["auto", "given"] = "auto"
     bearing: Bearing = 0.0
-    delays: list[str | float] | None = None
+    delays: list[quantity("time", ge=-1e-3, le=1e-3)] | None = None
     phases: list[float] | None = None
     amplitudes: list[float] | None = None
     ground: GroundField | None = None
@@ -80,11 +87,17 @@ class PhasedVerticalsParams(AntennaParams):
         return self
 
 
-def _weights_from(entry: dict, where: str):
-    """(delay [s], phase [rad], amplitude) of one element's weight keys."""
+def _si_or_parse(value, dimension: str, si: bool) -> float:
+    if si and isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value)
+    return parse_quantity(value, dimension)
+
+
+def _weights_from(entry: dict, where: str, *, si: bool = False):
+    """(delay [s], phase [rad], amplitude) of one element's weight keys (``si``: bare numbers are s and m)."""
     delay = 0.0
     if "delay" in entry:
-        delay = parse_quantity(entry["delay"], "time")
+        delay = _si_or_parse(entry["delay"], "time", si)
     if "delay_line" in entry:
         dl = entry["delay_line"]
         if not isinstance(dl, dict) or set(dl) - {"length", "velocity_factor"} or "length" not in dl:
@@ -92,7 +105,7 @@ def _weights_from(entry: dict, where: str):
         vf = float(dl.get("velocity_factor", 0.66))
         if not 0 < vf <= 1:
             raise ValueError(f"{where}.delay_line.velocity_factor must lie in (0, 1]; got {vf!r}")
-        delay += parse_quantity(dl["length"], "length") / (vf * C_M_PER_S)
+        delay += _si_or_parse(dl["length"], "length", si) / (vf * C_M_PER_S)
     phase = np.radians(float(entry.get("phase", 0.0)))
     amp = float(entry.get("amplitude", 1.0))
     if not 0 <= amp <= 100:
@@ -120,10 +133,10 @@ class Array(Antenna):
                 if fam is not None and "ground" in fam.params.model_fields:
                     spec["ground"] = params.ground
             try:
-                el = build(spec, where)
+                el = build(spec, where, si=params._si)
                 if params.steering == "auto" and any(k in raw for k in ("delay", "delay_line", "phase")):
                     raise ValueError(f"{where}: delays and phases are set by steering = 'auto'")
-                self.weights.append(_weights_from(raw, where))
+                self.weights.append(_weights_from(raw, where, si=params._si))
             except SpecError as exc:
                 problems.extend(exc.problems)
                 continue
@@ -192,8 +205,8 @@ class PhasedVerticals(Array):
     def __init__(self, params: PhasedVerticalsParams):
         elements = []
         for i, pos in enumerate(params.positions):
-            e = {"family": "vertical", "height": f"{params.height} m", "ground_loss": params.ground_loss,
-                 "top_loading": f"{params.top_loading} m", "position": [pos[0], pos[1]]}
+            e = {"family": "vertical", "height": params.height, "ground_loss": params.ground_loss,
+                 "top_loading": params.top_loading, "position": [pos[0], pos[1]]}
             if params.delays is not None:
                 e["delay"] = params.delays[i]
             if params.phases is not None:
@@ -201,8 +214,9 @@ class PhasedVerticals(Array):
             if params.amplitudes is not None:
                 e["amplitude"] = params.amplitudes[i]
             elements.append(e)
-        ap = ArrayParams(family="array", name=params.name, position=params.position, elements=elements,
-                         steering=params.steering, bearing=params.bearing, ground=params.ground)
+        ap = ArrayParams.model_validate({"family": "array", "name": params.name, "position": params.position,
+                                         "elements": elements, "steering": params.steering, "bearing": params.bearing,
+                                         "ground": params.ground}, context=SI_CONTEXT)
         super().__init__(ap)
         self.params = params
 

@@ -19,7 +19,7 @@ from typing import Any, ClassVar
 import numpy as np
 from pydantic import ValidationError
 
-from snrgain.fields import PlanPoint, StrictModel
+from snrgain.fields import SI_CONTEXT, PlanPoint, StrictModel
 
 
 class SpecError(ValueError):
@@ -181,10 +181,11 @@ def pydantic_problems(exc: ValidationError, prefix: str = "") -> list[tuple[str,
     return out
 
 
-def validate_spec(spec: dict, prefix: str = "") -> AntennaParams:
+def validate_spec(spec: dict, prefix: str = "", *, si: bool = False) -> AntennaParams:
     """Validate an antenna spec against its family's parameter model.
 
-    Raises :class:`SpecError` with every problem found, paths prefixed by ``prefix``.
+    With ``si``, bare numbers in quantity fields are SI values (m, Hz, rad, ohm, s).  Raises
+    :class:`SpecError` with every problem found, paths prefixed by ``prefix``.
     """
     where = (prefix + ".") if prefix else ""
     if not isinstance(spec, dict):
@@ -197,17 +198,17 @@ def validate_spec(spec: dict, prefix: str = "") -> AntennaParams:
         valid = ", ".join(repr(k) for k in FAMILIES)
         raise SpecError([(f"{where}family", f"unknown antenna family {family!r}; choose one of {valid}")])
     try:
-        return FAMILIES[family].params.model_validate(spec)
+        return FAMILIES[family].params.model_validate(spec, context=SI_CONTEXT if si else None)
     except ValidationError as exc:
         raise SpecError(pydantic_problems(exc, prefix)) from None
 
 
-def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None) -> Antenna:
-    """Validate and build an antenna, checking it at ``freq_hz`` if given.
+def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None, si: bool = False) -> Antenna:
+    """Validate and build an antenna, checking it at ``freq_hz`` if given (``si``: see :func:`validate_spec`).
 
     Raises :class:`SpecError` naming every bad field, paths prefixed by ``prefix``.
     """
-    params = validate_spec(spec, prefix)
+    params = validate_spec(spec, prefix, si=si)
     try:
         ant = FAMILIES[params.family].build(params)
         if freq_hz is not None:
@@ -217,6 +218,41 @@ def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None) -> Ante
         raise
     except (ValueError, OSError) as exc:
         raise SpecError([(prefix, str(exc))]) from None
+
+
+def from_si(family: str, **values) -> Antenna:
+    """Build an antenna from SI keyword arguments: lengths in m, angles in rad, resistances in ohm, times in s.
+
+    The same validation as a scenario's antenna table, without parsing unit strings (for notebooks and
+    optimisers).  Strings with units are still accepted.
+
+    >>> import numpy as np
+    >>> bev = from_si("beverage", length=250.0, height=2.5, bearing=np.radians(45.0), ground="average")
+    >>> bev.length_m, round(float(np.degrees(bev.bearing_rad)), 6)
+    (250.0, 45.0)
+    >>> from_si("beverage", length=-1.0, height=2.5)
+    Traceback (most recent call last):
+    ...
+    snrgain.antennas.base.SpecError: length: must be > 0 m and <= 3000 m; got -1.0
+    """
+    return build({"family": family, **values}, si=True)
+
+
+def variant(antenna: Antenna, **si_values) -> Antenna:
+    """The same antenna with some parameters changed, given as SI values (lengths in m, angles in rad, ...).
+
+    Validated like any antenna; for sweeps over a design.
+
+    >>> import numpy as np
+    >>> bev = from_spec({"family": "beverage", "length": "800 ft", "height": "8 ft", "bearing": 45})
+    >>> longer = variant(bev, length=300.0)
+    >>> longer.length_m, round(float(np.degrees(longer.bearing_rad)), 6)
+    (300.0, 45.0)
+    """
+    if antenna.family == "array":
+        raise ValueError("variant: an array keeps its elements as written; build a new array instead")
+    base = antenna.params.model_dump(by_alias=True, exclude_none=True)
+    return build({**base, **si_values}, si=True)
 
 
 def from_spec(spec: dict) -> Antenna:

@@ -33,18 +33,17 @@ from pydantic import Field, model_validator
 
 from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
-from snrgain.fields import Bearing, GroundField, make_ground, quantity
+from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
 
 
-class SmallLoopParams(AntennaParams):
+class SmallLoopParams(WireSize, AntennaParams):
     family: Literal["small-loop"]
     width: quantity("length", gt=0.0, le=20.0)
     loop_height: quantity("length", gt=0.0, le=20.0)
     height: quantity("length", gt=0.0, le=50.0)
     bearing: Bearing = 0.0
     turns: int = Field(default=1, ge=1, le=50)
-    gauge: int | None = Field(default=None, ge=-3, le=40)
     ground: GroundField | None = None
 
     @model_validator(mode="after")
@@ -75,7 +74,7 @@ class SmallLoop(Antenna):
         lam = C_M_PER_S / freq_hz
         n = p.turns
         r_rad = 320 * np.pi**4 * (n * self.area_m2 / lam**2) ** 2
-        a = lines.awg_diameter_m(14 if p.gauge is None else p.gauge) / 2
+        a = p.radius_m
         r_loss = 2 * (p.width + p.loop_height) * n * np.real(lines.wire_internal_impedance(freq_hz, a))
         return float(r_rad), float(r_loss)
 

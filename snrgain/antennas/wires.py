@@ -36,7 +36,7 @@ from scipy.interpolate import RegularGridInterpolator
 
 from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
-from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity
+from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity, wire_radius_m
 from snrgain.ground import C_M_PER_S
 
 MIN_LOSSY_HEIGHT_WAVELENGTHS = 0.05
@@ -70,7 +70,7 @@ class Wire(StrictModel):
     def radius_m(self) -> float:
         if self.radius is not None:
             return self.radius
-        return lines.awg_diameter_m(14 if self.gauge is None else self.gauge) / 2
+        return wire_radius_m(gauge=self.gauge)
 
     @property
     def length_m(self) -> float:

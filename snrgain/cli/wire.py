@@ -2,20 +2,14 @@
 
 from __future__ import annotations
 
-import json
-
 import click
-import numpy as np
 
-from snrgain.cli.options import handle_errors
-
-SAFETY = ("Safety: keep the wire and its supports well clear of power lines; ground and disconnect the feed line "
-          "when storms are near; have buried utilities located before driving ground rods; mark or bury wires "
-          "on the ground where people walk. Follow local codes.")
+from snrgain.cli.options import emit_json, handle_errors
+from snrgain.constants import WIRE_FAMILIES
 
 
 @click.command("wire")
-@click.option("--family", type=click.Choice(["beverage", "bog", "unterminated", "two-wire"]), default="beverage",
+@click.option("--family", type=click.Choice(WIRE_FAMILIES), default="beverage",
               show_default=True, help="Kind of long wire.")
 @click.option("--frequency", required=True, help="Frequency with unit, e.g. '1.83 MHz'.")
 @click.option("--length", required=True, help="Wire length with unit, e.g. '800 ft'.")
@@ -44,67 +38,31 @@ def wire(family, frequency, length, height, gauge, diameter, ground, conductivit
     beside the ones of best RDF and best front-to-back; and the transformer
     turns ratio that matches the feed to the coax, with its mismatch loss.
     """
-    from noisemodels.sphere import upper_hemisphere
+    import numpy as np
+
     from snrgain import wiredesign
-    from snrgain.antennas import from_spec
-    from snrgain.targets import from_bearing
     from snrgain.units import parse_quantity
 
     f = parse_quantity(frequency, "frequency")
-    spec = {"family": family, "length": length, "coax": int(coax), "feed_ground": feed_ground}
-    if family != "unterminated":
-        spec["far_ground"] = far_ground
-    if family in ("beverage", "bog"):
-        spec["termination"] = termination if termination == "auto" else parse_quantity(termination, "resistance")
-    elif termination != "auto":
-        raise ValueError(f"--termination: the {family} family sets its own far end; leave --termination out")
-    spec["height"] = height or ("2 cm" if family == "bog" else "2.5 m")
-    if gauge is not None:
-        spec["gauge"] = gauge
-    if diameter is not None:
-        spec["diameter"] = diameter
-    if conductivity is not None or permittivity is not None:
-        if conductivity is None or permittivity is None:
-            raise ValueError("--conductivity and --permittivity go together")
-        spec["ground"] = {"conductivity": conductivity, "permittivity": permittivity}
-    else:
-        spec["ground"] = ground
-    ant = from_spec(spec)
-    ant.check_frequency(f)
-    target = from_bearing("along the wire", bearing_rad=0.0, elevation_lo_rad=np.radians(elevation),
-                          elevation_hi_rad=np.radians(elevation))
-    design = ant.design(f)
-    ln = ant.line(f)
-    length_adv = wiredesign.best_length(spec, f, target=target)
-    out = {"antenna": ant.describe(), **design, "target_elevation_deg": elevation,
-           "length_rule_m": length_adv.rule_m, "best_length_m": length_adv.best_m,
-           "best_length_rdf_db": length_adv.best_rdf_db,
-           "rdf_db": wiredesign.rdf_db(ant, f, target, upper_hemisphere(32)),
-           "front_to_back_db": wiredesign.front_to_back_db(ant, f, target),
-           "forward_gain_dbi": float(ant.gain_dbi(f, 0.0, elevation)),
-           "safety": SAFETY}
-    if family in ("beverage", "bog"):
-        t_rdf = wiredesign.best_termination(spec, f, target=target, metric="rdf")
-        t_fb = wiredesign.best_termination(spec, f, target=target, metric="front_to_back")
-        out.update(textbook_termination_ohm=t_rdf.textbook_ohm, best_rdf_termination_ohm=t_rdf.best_ohm,
-                   best_front_to_back_termination_ohm=t_fb.best_ohm)
-    tr = wiredesign.transformer(ant, f)
-    out.update(exact_turns_ratio=tr.exact_turns_ratio, practical_turns_ratio=tr.practical_turns_ratio,
-               practical_mismatch_loss_db=tr.practical_mismatch_loss_db)
+    spec = wiredesign.wire_spec(family, length=length, height=height, termination=termination,
+                                feed_ground=feed_ground, far_ground=far_ground, gauge=gauge, diameter=diameter,
+                                ground=ground, conductivity=conductivity, permittivity=permittivity, coax=int(coax))
+    out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
     if fmt == "json":
-        from snrgain.evaluate import _jsonable
-
-        click.echo(json.dumps(_jsonable(out), sort_keys=True, indent=2))
+        emit_json(out)
         return
+    ant, ln = out["antenna"], out["line"]
     ft = 1 / 0.3048
+    length_m, rule_m, best_m = ant["length_m"], out["length_rule_m"], out["best_length_m"]
+    z0 = complex(*ln["z0_ohm"])
     lines_out = [
-        f"{family}: {ant.length_m:.1f} m ({ant.length_m * ft:.0f} ft) at {ant.wire_height_m():g} m over "
-        f"{out['antenna']['ground']} ground, {f / 1e6:g} MHz",
-        f"  line: velocity factor {ln.velocity_factor:.3f}, attenuation {ln.attenuation_db_per_100m:.2f} dB/100 m "
-        f"({ln.attenuation_db_per_100ft:.2f} dB/100 ft), Z0 {ln.z0.real:.0f}{ln.z0.imag:+.0f}j ohm (|Z0| {abs(ln.z0):.0f})",
-        f"  length: rule of thumb lambda/(4(1/k - cos {elevation:g} deg)) = {length_adv.rule_m:.0f} m "
-        f"({length_adv.rule_m * ft:.0f} ft); model's best for RDF = {length_adv.best_m:.0f} m "
-        f"({length_adv.best_m * ft:.0f} ft), RDF {length_adv.best_rdf_db:.1f} dB",
+        f"{family}: {length_m:.1f} m ({length_m * ft:.0f} ft) at {ant['height_m']:g} m over "
+        f"{ant['ground']} ground, {f / 1e6:g} MHz",
+        f"  line: velocity factor {ln['velocity_factor']:.3f}, attenuation {ln['attenuation_db_per_100m']:.2f} dB/100 m "
+        f"({ln['attenuation_db_per_100ft']:.2f} dB/100 ft), Z0 {z0.real:.0f}{z0.imag:+.0f}j ohm (|Z0| {abs(z0):.0f})",
+        f"  length: rule of thumb lambda/(4(1/k - cos {elevation:g} deg)) = {rule_m:.0f} m "
+        f"({rule_m * ft:.0f} ft); model's best for RDF = {best_m:.0f} m "
+        f"({best_m * ft:.0f} ft), RDF {out['best_length_rdf_db']:.1f} dB",
         f"  this wire: forward gain {out['forward_gain_dbi']:.1f} dBi, RDF {out['rdf_db']:.1f} dB, "
         f"front-to-back {out['front_to_back_db']:.1f} dB at {elevation:g} deg",
     ]
@@ -112,11 +70,12 @@ def wire(family, frequency, length, height, gauge, diameter, ground, conductivit
         lines_out.append(f"  termination: |Z0| less the far rod = {out['textbook_termination_ohm']:.0f} ohm; best RDF "
                          f"{out['best_rdf_termination_ohm']:.0f} ohm; best front-to-back "
                          f"{out['best_front_to_back_termination_ohm']:.0f} ohm")
-    zin = design["feed_point_impedance_ohm"]
+    zin = out["feed_point_impedance_ohm"]
+    exact = out["exact_turns_ratio"]
     lines_out += [
-        f"  feed point {zin[0]:.0f}{zin[1]:+.0f}j ohm; to {coax} ohm coax: turns ratio {tr.exact_turns_ratio:.2f} "
-        f"(impedance {tr.exact_turns_ratio ** 2:.1f}:1); practical {tr.practical_turns_ratio:g}:1 turns loses "
-        f"{tr.practical_mismatch_loss_db:.2f} dB",
-        "", SAFETY,
+        f"  feed point {zin[0]:.0f}{zin[1]:+.0f}j ohm; to {coax} ohm coax: turns ratio {exact:.2f} "
+        f"(impedance {exact ** 2:.1f}:1); practical {out['practical_turns_ratio']:g}:1 turns loses "
+        f"{out['practical_mismatch_loss_db']:.2f} dB",
+        "", out["safety"],
     ]
     click.echo("\n".join(lines_out))
