@@ -56,14 +56,32 @@ def main():
         "isotropic": {"family": "isotropic"},
         "beverage 300 m": {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"},
         "bog 80 m": {"family": "bog", "length": "80 m", "ground": "average"},
-        "terminated loop": {"family": "terminated-loop", "width": "8.5 m", "loop_height": "4.3 m",
-                            "termination": 950, "ground": "average"},
-        "small loop": {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "2 m",
-                       "ground": "average"},
-        "phased pair": {"family": "phased-verticals", "positions": [[0, 0], [0, 41]], "height": "6 m",
-                        "ground": "average"},
-        "4 verticals": {"family": "phased-verticals", "positions": [[0, 0], [0, 41], [41, 0], [41, 41]],
-                        "height": "6 m", "ground": "average"},
+        "terminated loop": {
+            "family": "terminated-loop",
+            "width": "8.5 m",
+            "loop_height": "4.3 m",
+            "termination": 950,
+            "ground": "average",
+        },
+        "small loop": {
+            "family": "small-loop",
+            "width": "1 m",
+            "loop_height": "1 m",
+            "height": "2 m",
+            "ground": "average",
+        },
+        "phased pair": {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [0, 41]],
+            "height": "6 m",
+            "ground": "average",
+        },
+        "4 verticals": {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [0, 41], [41, 0], [41, 41]],
+            "height": "6 m",
+            "ground": "average",
+        },
         "vertical": {"family": "vertical", "height": "18 m"},
         "tabulated": {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")},
     }
@@ -86,14 +104,20 @@ def main():
         lat, lon = np.meshgrid(np.arange(-90, 90.1, 1.0), np.arange(-180, 180, 1.0), indexing="ij")
         p372.atmospheric(0.0, 0.0, month=7, freq_hz=1.83e6, time_block=0, data_dir=p372_dir)  # read the file once
         best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, time_block=5, data_dir=p372_dir))
-        print(f"\nP.372 atmospheric Fa on a 1 deg global grid ({lat.size} sites), one block and frequency: "
-              f"{best * 1e3:.0f} ms (target well under 1 s)")
+        print(
+            f"\nP.372 atmospheric Fa on a 1 deg global grid ({lat.size} sites), one block and frequency: "
+            f"{best * 1e3:.0f} ms (target well under 1 s)"
+        )
         best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, utc_hour=4.0, data_dir=p372_dir))
         print(f"the same for a UTC hour (six blocks, interpolated): {best * 1e3:.0f} ms")
         grid = upper_hemisphere(32)
         lv = p372.NoiseLevel(60.0, 0.0, 0.0)
-        best, _ = best_of(lambda: storms.storm_component(41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv,
-                                                          directions=grid, data_dir=p372_dir), n=3)
+        best, _ = best_of(
+            lambda: storms.storm_component(
+                41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv, directions=grid, data_dir=p372_dir
+            ),
+            n=3,
+        )
         print(f"storm-direction sky map for one hour (nside 32): {best * 1e3:.0f} ms")
     else:
         print("\n(P.372 data not found beside the project; atmospheric benchmarks skipped)")
@@ -104,11 +128,21 @@ def long_wire_benchmarks(from_spec, upper_hemisphere):
     from snrgain import wiredesign
 
     grid = upper_hemisphere(32)
-    spec = {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "perfect", "feed_ground": 0,
-            "far_ground": 0, "termination": 500}
+    spec = {
+        "family": "beverage",
+        "length": "300 m",
+        "height": "2.5 m",
+        "ground": "perfect",
+        "feed_ground": 0,
+        "far_ground": 0,
+        "termination": 500,
+    }
     ant = from_spec(spec)
     ours, _ = best_of(lambda: ant.gain_linear(1.83e6, grid.azimuth_rad, grid.elevation_rad), n=20)
-    print(f"\n300 m Beverage, full-sphere pattern ({grid.size} directions, nside 32): {ours * 1e3:.2f} ms (target <= 20 ms)")
+    print(
+        f"\n300 m Beverage, full-sphere pattern ({grid.size} directions, nside 32): {ours * 1e3:.2f} ms "
+        "(target <= 20 ms)"
+    )
     try:
         import PyNEC  # noqa: F401
     except ImportError:
@@ -116,11 +150,15 @@ def long_wire_benchmarks(from_spec, upper_hemisphere):
     else:
         lossy = from_spec({**spec, "ground": "average"})
         ours_lossy, _ = best_of(lambda: lossy.gain_linear(1.83e6, grid.azimuth_rad, grid.elevation_rad), n=20)
-        for label, gn, mine in (("Sommerfeld ground (GN 2), average soil", "sommerfeld", ours_lossy),
-                                ("perfect ground (GN 1)", "perfect", ours)):
+        for label, gn, mine in (
+            ("Sommerfeld ground (GN 2), average soil", "sommerfeld", ours_lossy),
+            ("perfect ground (GN 1)", "perfect", ours),
+        ):
             t = _pynec_pattern_time(gn)
-            print(f"PyNEC over {label}, same geometry and number of directions: {t * 1e3:.0f} ms; "
-                  f"ours {mine * 1e3:.2f} ms -> {t / mine:.0f}x faster (target >= 50x)")
+            print(
+                f"PyNEC over {label}, same geometry and number of directions: {t * 1e3:.0f} ms; "
+                f"ours {mine * 1e3:.2f} ms -> {t / mine:.0f}x faster (target >= 50x)"
+            )
     lengths = np.linspace(150, 400, 10)
     terms = np.linspace(300, 800, 10)
     bearings = np.arange(0, 360, 36.0)
@@ -128,7 +166,10 @@ def long_wire_benchmarks(from_spec, upper_hemisphere):
     t0 = time.perf_counter()
     out = wiredesign.sweep_rdf(base, 1.83e6, lengths_m=lengths, terminations_ohm=terms, bearings_deg=bearings)
     dt = time.perf_counter() - t0
-    print(f"RDF sweep of {out.size} designs (length x termination x bearing), nside 32: {dt:.2f} s (target well under 10 s)")
+    print(
+        f"RDF sweep of {out.size} designs (length x termination x bearing), nside 32: {dt:.2f} s "
+        "(target well under 10 s)"
+    )
 
 
 def _pynec_pattern_time(ground):

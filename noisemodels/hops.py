@@ -11,8 +11,10 @@ angle 2 (acos(R cos(Delta_min) / (R + h)) - Delta_min).
     >>> import numpy as np
     >>> round(float(np.degrees(hop_elevation_rad(0.0, 1, layer_height_m=250e3))), 6)
     90.0
+    >>> round(float(max_hop_distance_m(layer_height_m=250e3, min_elevation_rad=np.radians(3.0))) / 1e3)
+    2907
     >>> fewest_hops(3000e3, layer_height_m=250e3, min_elevation_rad=np.radians(3.0))
-    1
+    2
 """
 
 from __future__ import annotations
@@ -37,7 +39,9 @@ def max_hop_distance_m(*, layer_height_m, min_elevation_rad):
 
 def fewest_hops(distance_m, *, layer_height_m, min_elevation_rad):
     """The fewest equal hops (>= 1) that keep the elevation at or above ``min_elevation_rad``."""
-    n = np.ceil(np.asarray(distance_m, dtype=float) / max_hop_distance_m(
-        layer_height_m=layer_height_m, min_elevation_rad=min_elevation_rad))
+    n = np.ceil(
+        np.asarray(distance_m, dtype=float)
+        / max_hop_distance_m(layer_height_m=layer_height_m, min_elevation_rad=min_elevation_rad)
+    )
     n = np.maximum(1, n).astype(int)
     return int(n) if n.ndim == 0 else n

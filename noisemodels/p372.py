@@ -194,8 +194,9 @@ def combine_present(levels: list[NoiseLevel]) -> NoiseLevel:
     return combine(present)
 
 
-def atmospheric(latitude_deg, longitude_deg, *, month: int, freq_hz, time_block=None, utc_hour=None,
-                data_dir=None) -> NoiseLevel:
+def atmospheric(
+    latitude_deg, longitude_deg, *, month: int, freq_hz, time_block=None, utc_hour=None, data_dir=None
+) -> NoiseLevel:
     """Median atmospheric noise FaA and its decile deviations from P.372's numerical maps.
 
     Parameters

@@ -43,7 +43,7 @@ HOW_TO_GET = (
     "Group 3 with its software for Recommendation ITU-R P.372 (ITU-R SG3 software and data pages). "
     f"Put them in a folder and name it with the scenario key noise.atmospheric.data_dir, the environment "
     f"variable {ENV_VAR}, or the --p372-dir option; or give the level by hand: "
-    "[noise.atmospheric] model = \"given\", fa = \"45 dB\"."
+    '[noise.atmospheric] model = "given", fa = "45 dB".'
 )
 
 
@@ -97,7 +97,9 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
     try:
         text = path.read_text(encoding="latin-1")
     except OSError as exc:
-        raise P372DataError(f"{path}: cannot read P.372 coefficient file ({exc.strerror or exc}). {HOW_TO_GET}") from None
+        raise P372DataError(
+            f"{path}: cannot read P.372 coefficient file ({exc.strerror or exc}). {HOW_TO_GET}"
+        ) from None
     values: dict[str, list[float]] = {}
     dims: dict[str, tuple[int, ...]] = {}
     current = None
@@ -115,7 +117,9 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
         try:
             values[current].extend(float(x) for x in line.split())
         except ValueError:
-            raise P372DataError(f"{path}, line {line_no}: section {current}: not a number in {line.strip()!r}") from None
+            raise P372DataError(
+                f"{path}, line {line_no}: section {current}: not a number in {line.strip()!r}"
+            ) from None
     arrays = {}
     for name, expect in SECTIONS.items():
         if name not in values:

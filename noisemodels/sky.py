@@ -24,7 +24,6 @@ from noisemodels.hops import EARTH_RADIUS_M
 from noisemodels.sphere import Directions, angular_distance_rad
 
 
-
 def reference_monopole_gain(elevation_rad):
     """Total gain (linear) of P.372's reference antenna: 3 cos^2(el), 0 below the horizon."""
     el = np.asarray(elevation_rad, dtype=float)
@@ -52,7 +51,7 @@ class SkyComponent:
     weight_k_sr: np.ndarray
     level: p372.NoiseLevel
 
-    def scaled(self, factor: float) -> "SkyComponent":
+    def scaled(self, factor: float) -> SkyComponent:
         """The component with its power multiplied by ``factor`` (deciles kept)."""
         fa = np.asarray(self.level.fa_db) + 10.0 * np.log10(factor)
         return replace(
@@ -73,6 +72,7 @@ def reference_temperature_k(component: SkyComponent) -> float:
 
 
 # -- elevation and azimuth distributions (brightness shapes, unnormalised) ----
+
 
 def elevation_low(elevation_rad, *, scale_rad):
     """Brightness falling off from the horizon as exp(-el / scale).
@@ -207,7 +207,9 @@ def galactic_component(
     return SkyComponent(name, "galactic", directions, weights, p372.NoiseLevel(fa, free_sky.du_db, free_sky.dl_db))
 
 
-def compact_source_directions(azimuth_rad: float, elevation_rad: float, spread_rad: float, *, label: str = "") -> Directions:
+def compact_source_directions(
+    azimuth_rad: float, elevation_rad: float, spread_rad: float, *, label: str = ""
+) -> Directions:
     """Sample directions of a source with a Gaussian angular profile.
 
     The profile is exp(-d^2 / (2 spread^2)) in the angle d from the centre,

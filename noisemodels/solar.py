@@ -24,10 +24,18 @@ def mid_month_day_of_year(month) -> np.ndarray:
 
 def _spencer(day_of_year):
     g = 2 * np.pi * (np.asarray(day_of_year, dtype=float) - 1) / 365.0
-    decl = (0.006918 - 0.399912 * np.cos(g) + 0.070257 * np.sin(g) - 0.006758 * np.cos(2 * g)
-            + 0.000907 * np.sin(2 * g) - 0.002697 * np.cos(3 * g) + 0.00148 * np.sin(3 * g))
-    eot_min = 229.18 * (0.000075 + 0.001868 * np.cos(g) - 0.032077 * np.sin(g)
-                        - 0.014615 * np.cos(2 * g) - 0.040849 * np.sin(2 * g))
+    decl = (
+        0.006918
+        - 0.399912 * np.cos(g)
+        + 0.070257 * np.sin(g)
+        - 0.006758 * np.cos(2 * g)
+        + 0.000907 * np.sin(2 * g)
+        - 0.002697 * np.cos(3 * g)
+        + 0.00148 * np.sin(3 * g)
+    )
+    eot_min = 229.18 * (
+        0.000075 + 0.001868 * np.cos(g) - 0.032077 * np.sin(g) - 0.014615 * np.cos(2 * g) - 0.040849 * np.sin(2 * g)
+    )
     return decl, eot_min
 
 

@@ -113,7 +113,9 @@ def arrival_samples(
     for i in range(1, nmax + 1):
         active = n >= i
         frac = (2 * i - 1) / (2.0 * n)
-        lo, la, _ = geod.fwd(np.full(b.size, site_lon_deg), np.full(b.size, site_lat_deg), b.ravel(), (d * frac).ravel())
+        lo, la, _ = geod.fwd(
+            np.full(b.size, site_lon_deg), np.full(b.size, site_lat_deg), b.ravel(), (d * frac).ravel()
+        )
         chi = np.pi / 2 - solar.solar_elevation_rad(np.radians(la), np.radians(lo), day_of_year=doy, utc_hour=utc_hour)
         hop = hop_absorption_db(f_mhz, el, chi.reshape(b.shape))
         loss_db += np.where(active, hop, 0.0)
@@ -163,8 +165,16 @@ def storm_component(
     name: str = "atmospheric (P.372, storm directions)",
 ) -> SkyComponent:
     """Atmospheric noise spread over the sky by the storm-to-site model, normalised to ``level``."""
-    az, el, power = arrival_samples(site_lat_deg, site_lon_deg, month=month, utc_hour=utc_hour, freq_hz=freq_hz,
-                                    layer_height_m=layer_height_m, data_dir=data_dir, sources=sources)
+    az, el, power = arrival_samples(
+        site_lat_deg,
+        site_lon_deg,
+        month=month,
+        utc_hour=utc_hour,
+        freq_hz=freq_hz,
+        layer_height_m=layer_height_m,
+        data_dir=data_dir,
+        sources=sources,
+    )
     per_pixel = deposit(directions, az, el, power)
     if not np.any(per_pixel > 0):
         raise ValueError("the storm model found no path to the site; use a uniform or sector arrival instead")

@@ -1,9 +1,9 @@
 """snrgain: signal-to-noise gain of low-band receiving antennas at your site.
 
-    >>> import snrgain
-    >>> results = snrgain.evaluate("scenarios/marrow-fen.toml")
-    >>> results.reference.name
-    '80 m quarter-wave vertical'
+>>> import snrgain
+>>> results = snrgain.evaluate("scenarios/marrow-fen.toml")
+>>> results.reference.name
+'80 m quarter-wave vertical'
 """
 
 from snrgain.evaluate import evaluate
@@ -13,5 +13,14 @@ from snrgain.scenario import Scenario, ScenarioError, load
 
 __version__ = "0.1.0"
 
-__all__ = ["evaluate", "load", "Results", "AntennaResult", "Notice", "SkySeries", "Scenario", "ScenarioError",
-           "__version__"]
+__all__ = [
+    "evaluate",
+    "load",
+    "Results",
+    "AntennaResult",
+    "Notice",
+    "SkySeries",
+    "Scenario",
+    "ScenarioError",
+    "__version__",
+]

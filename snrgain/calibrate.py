@@ -60,14 +60,17 @@ def check_readings(readings: list[OpenShort], length_m: float) -> None:
             raise ReadingError(f"reading {i}: frequency must be > 0 Hz, got {r.freq_hz!r}")
         for name, z in (("open", r.z_open_ohm), ("short", r.z_short_ohm)):
             if not np.isfinite(z) or z.real < 0:
-                raise ReadingError(f"reading {i}: {name}-end impedance {z:.4g} ohm has a negative or non-finite "
-                                   "resistance, which a passive wire cannot show; check the analyser's connection")
+                raise ReadingError(
+                    f"reading {i}: {name}-end impedance {z:.4g} ohm has a negative or non-finite "
+                    "resistance, which a passive wire cannot show; check the analyser's connection"
+                )
             if abs(z) == 0:
                 raise ReadingError(f"reading {i}: {name}-end impedance is zero; the inversion needs both readings")
 
 
-def line_from_open_short(readings: list[OpenShort], *, length_m: float,
-                         expected_velocity_factor: float = 0.8) -> list[lines.LineConstants]:
+def line_from_open_short(
+    readings: list[OpenShort], *, length_m: float, expected_velocity_factor: float = 0.8
+) -> list[lines.LineConstants]:
     """Invert open/short readings into line constants, one per reading (sorted by frequency)."""
     check_readings(readings, length_m)
     if not 0 < expected_velocity_factor <= 1:
@@ -94,8 +97,10 @@ def line_from_open_short(readings: list[OpenShort], *, length_m: float,
             if vf < 0.05:
                 break
         if not choices:
-            raise ReadingError(f"readings at {r.freq_hz / 1e6:g} MHz give no velocity factor <= 1 for a "
-                               f"{length_m:g} m wire; check the length and the readings")
+            raise ReadingError(
+                f"readings at {r.freq_hz / 1e6:g} MHz give no velocity factor <= 1 for a "
+                f"{length_m:g} m wire; check the length and the readings"
+            )
         if prev_beta_over_f is None:
             n, beta, vf = min(choices, key=lambda c: abs(c[2] - expected_velocity_factor))
         else:
@@ -112,8 +117,10 @@ def vf_from_quarter_wave(length_m: float, freq_hz: float) -> float:
         raise ReadingError("length and resonance frequency must be > 0")
     vf = 4 * length_m * freq_hz / C_M_PER_S
     if vf > 1.0:
-        raise ReadingError(f"a {length_m:g} m wire resonating at {freq_hz / 1e6:g} MHz would have velocity factor "
-                           f"{vf:.2f} > 1; that is not its first quarter-wave resonance, or the length is wrong")
+        raise ReadingError(
+            f"a {length_m:g} m wire resonating at {freq_hz / 1e6:g} MHz would have velocity factor "
+            f"{vf:.2f} > 1; that is not its first quarter-wave resonance, or the length is wrong"
+        )
     return vf
 
 
@@ -134,13 +141,19 @@ class GroundFit:
         return Ground(self.conductivity_s_per_m, self.permittivity, "fitted", "fitted to the builder's measurements")
 
     def scenario_value(self) -> str:
-        return (f'{{ conductivity = "{self.conductivity_s_per_m * 1e3:.3g} mS/m", '
-                f'permittivity = {self.permittivity:.3g} }}')
+        return (
+            f'{{ conductivity = "{self.conductivity_s_per_m * 1e3:.3g} mS/m", permittivity = {self.permittivity:.3g} }}'
+        )
 
 
-def fit_ground(model_line, measurements: list[dict], *, permittivity: float | None = None,
-               vf_sigma: float = DEFAULT_VF_UNCERTAINTY,
-               attenuation_rel_sigma: float = DEFAULT_ATTENUATION_UNCERTAINTY) -> GroundFit:
+def fit_ground(
+    model_line,
+    measurements: list[dict],
+    *,
+    permittivity: float | None = None,
+    vf_sigma: float = DEFAULT_VF_UNCERTAINTY,
+    attenuation_rel_sigma: float = DEFAULT_ATTENUATION_UNCERTAINTY,
+) -> GroundFit:
     """Fit ground constants so that ``model_line(freq_hz, ground)`` reproduces measured constants.
 
     ``measurements``: dicts with ``freq_hz``, ``velocity_factor`` and optionally
@@ -153,7 +166,8 @@ def fit_ground(model_line, measurements: list[dict], *, permittivity: float | No
         raise ReadingError(
             f"too few readings: {n_obs} measured value(s) for {n_unknown} unknowns; a quarter-wave resonance gives "
             "the velocity factor only, so add open/short readings (velocity factor and attenuation) or give the "
-            "soil's permittivity")
+            "soil's permittivity"
+        )
 
     def residuals(p):
         sigma = 10 ** p[0]
@@ -181,13 +195,15 @@ def fit_ground(model_line, measurements: list[dict], *, permittivity: float | No
     try:
         cov = np.linalg.inv(jac.T @ jac)
     except np.linalg.LinAlgError:
-        raise ReadingError("the readings do not constrain the ground (singular fit); add readings at another "
-                           "frequency or give the permittivity") from None
+        raise ReadingError(
+            "the readings do not constrain the ground (singular fit); add readings at another "
+            "frequency or give the permittivity"
+        ) from None
     rms = float(np.sqrt(np.mean(best.fun**2)))
     log_sigma_sd = float(np.sqrt(cov[0, 0]))
     eps = permittivity if permittivity is not None else float(best.x[1])
     eps_sd = 0.0 if permittivity is not None else float(np.sqrt(cov[1, 1]))
-    return GroundFit(float(10 ** best.x[0]), float(10 ** log_sigma_sd), eps, eps_sd, rms, permittivity is not None)
+    return GroundFit(float(10 ** best.x[0]), float(10**log_sigma_sd), eps, eps_sd, rms, permittivity is not None)
 
 
 EXAMPLE = """\
@@ -229,8 +245,10 @@ def load_readings(path: str | Path) -> WireReadings:
     spec.setdefault("family", "bog")
     ant = from_spec(spec)
     if ant.family not in WIRE_FAMILIES:
-        raise ValueError(f"{path}: wire.family: calibration needs a long-wire family ({', '.join(WIRE_FAMILIES)}), "
-                         f"not {ant.family!r}")
+        raise ValueError(
+            f"{path}: wire.family: calibration needs a long-wire family ({', '.join(WIRE_FAMILIES)}), "
+            f"not {ant.family!r}"
+        )
     out = WireReadings(ant)
     for i, r in enumerate(data.get("open_short", [])):
         extra = set(r) - {"frequency", "open", "short"}
@@ -238,8 +256,13 @@ def load_readings(path: str | Path) -> WireReadings:
             raise ValueError(f"{path}: open_short[{i}]: unknown key(s) {sorted(extra)}")
         try:
             f = parse_quantity(r["frequency"], "frequency")
-            out.open_short.append(OpenShort(f, parse_impedance(r["open"], f"open_short[{i}].open"),
-                                            parse_impedance(r["short"], f"open_short[{i}].short")))
+            out.open_short.append(
+                OpenShort(
+                    f,
+                    parse_impedance(r["open"], f"open_short[{i}].open"),
+                    parse_impedance(r["short"], f"open_short[{i}].short"),
+                )
+            )
         except KeyError as exc:
             raise ValueError(f"{path}: open_short[{i}]: key {exc.args[0]!r} is missing") from None
     for i, r in enumerate(data.get("resonance", [])):
@@ -271,11 +294,15 @@ class Calibration:
             "wire": self.antenna.describe(),
             "open_short": [ln.as_dict() for ln in self.constants],
             "resonance": self.resonances,
-            "fitted_ground": {"conductivity_s_per_m": f.conductivity_s_per_m,
-                              "conductivity_uncertainty_factor": f.conductivity_factor,
-                              "permittivity": f.permittivity, "permittivity_sigma": f.permittivity_sigma,
-                              "permittivity_fixed": f.fixed_permittivity, "residual_rms": f.residual_rms,
-                              "scenario_value": f.scenario_value()},
+            "fitted_ground": {
+                "conductivity_s_per_m": f.conductivity_s_per_m,
+                "conductivity_uncertainty_factor": f.conductivity_factor,
+                "permittivity": f.permittivity,
+                "permittivity_sigma": f.permittivity_sigma,
+                "permittivity_fixed": f.fixed_permittivity,
+                "residual_rms": f.residual_rms,
+                "scenario_value": f.scenario_value(),
+            },
         }
         if self.suggested_termination_ohm is not None:
             out["suggested_termination_ohm"] = self.suggested_termination_ohm
@@ -283,16 +310,27 @@ class Calibration:
         return out
 
 
-def calibrate(readings: WireReadings, *, expected_velocity_factor: float = 0.8,
-              permittivity: float | None = None) -> Calibration:
+def calibrate(
+    readings: WireReadings, *, expected_velocity_factor: float = 0.8, permittivity: float | None = None
+) -> Calibration:
     """Line constants from the readings, the ground fitted to them, and the termination and transformer they
     suggest (|Z0| less the far rod; sqrt((|Z0| + feed rod) / Z_coax))."""
     ant = readings.antenna
-    constants = (line_from_open_short(readings.open_short, length_m=ant.length_m,
-                                      expected_velocity_factor=expected_velocity_factor)
-                 if readings.open_short else [])
-    measured = [{"freq_hz": ln.freq_hz, "velocity_factor": ln.velocity_factor,
-                 "attenuation_db_per_100m": ln.attenuation_db_per_100m} for ln in constants]
+    constants = (
+        line_from_open_short(
+            readings.open_short, length_m=ant.length_m, expected_velocity_factor=expected_velocity_factor
+        )
+        if readings.open_short
+        else []
+    )
+    measured = [
+        {
+            "freq_hz": ln.freq_hz,
+            "velocity_factor": ln.velocity_factor,
+            "attenuation_db_per_100m": ln.attenuation_db_per_100m,
+        }
+        for ln in constants
+    ]
     resonances = []
     for f in readings.resonance_hz:
         vf = vf_from_quarter_wave(ant.length_m, f)

@@ -79,8 +79,16 @@ def cable_by_name(name: str) -> Cable:
         raise ValueError(f"cable must be one of {valid}, or give the feed line's loss; got {name!r}") from None
 
 
-def coax_loss_from_geometry(freq_hz, *, inner_diameter_m, dielectric_diameter_m, permittivity, loss_tangent=2e-4,
-                            conductivity_s_per_m=5.8e7, shield_factor=1.5):
+def coax_loss_from_geometry(
+    freq_hz,
+    *,
+    inner_diameter_m,
+    dielectric_diameter_m,
+    permittivity,
+    loss_tangent=2e-4,
+    conductivity_s_per_m=5.8e7,
+    shield_factor=1.5,
+):
     """Matched loss of a coaxial line from its geometry [dB/m], and its Z0 [ohm].
 
     Conductor loss alpha_c = R' / (2 Z0), R' = R_s (1/(pi d) + k_s/(pi D)), R_s = sqrt(pi f mu0 / sigma),
@@ -157,7 +165,7 @@ class Chain:
         """Noise added by the chain referred to the antenna terminals, T0 (F - 1) [K]."""
         return T0_K * (self.noise_factor - 1)
 
-    def with_preamp_gain(self, gain_db: float) -> "Chain":
+    def with_preamp_gain(self, gain_db: float) -> Chain:
         if self.preamp_index is None:
             raise ValueError("the chain has no preamplifier")
         st = list(self.stages)
@@ -177,7 +185,7 @@ class Chain:
         if self.with_preamp_gain(0.0).noise_factor <= need_f:
             return 0.0
         before = list(self.stages[: self.preamp_index])
-        after = list(self.stages[self.preamp_index + 1:])
+        after = list(self.stages[self.preamp_index + 1 :])
         f_b, g_b = friis(before) if before else (1.0, 1.0)
         f_a = friis(after)[0] if after else 1.0
         f_p = self.stages[self.preamp_index].noise_factor
@@ -279,7 +287,16 @@ def describe(chain: Chain, *, bandwidth_hz: float) -> dict:
 
     nf_db = float(10 * np.log10(chain.noise_factor))
     gain_db = float(10 * np.log10(chain.gain))
-    return {"noise_figure_db": nf_db, "gain_db": gain_db,
-            "noise_floor_dbm": float(noise_floor_dbm(nf_db, bandwidth_hz=bandwidth_hz)) + gain_db,
-            "stages": [{"name": st.name, "gain_db": float(10 * np.log10(st.gain)),
-                        "noise_figure_db": float(10 * np.log10(st.noise_factor))} for st in chain.stages]}
+    return {
+        "noise_figure_db": nf_db,
+        "gain_db": gain_db,
+        "noise_floor_dbm": float(noise_floor_dbm(nf_db, bandwidth_hz=bandwidth_hz)) + gain_db,
+        "stages": [
+            {
+                "name": st.name,
+                "gain_db": float(10 * np.log10(st.gain)),
+                "noise_figure_db": float(10 * np.log10(st.noise_factor)),
+            }
+            for st in chain.stages
+        ],
+    }

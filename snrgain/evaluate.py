@@ -34,7 +34,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     neither the scenario key nor $SNRGAIN_P372_DIR names one.
 
     >>> r = evaluate("scenarios/marrow-fen.toml")
-    >>> r.reference.snr_gain_db.max()  # the reference against itself
+    >>> float(abs(r.reference.snr_gain_db).max())  # the reference against itself
     0.0
     """
     from noisemodels.sphere import upper_hemisphere
@@ -42,25 +42,38 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     sc = source if isinstance(source, Scenario) else load(source, nside=nside, p372_dir=p372_dir)
     grid = upper_hemisphere(sc.nside)
     gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
-    skies = noisemod.build_skies(sc.noise, sc.place, months=sc.times.months, utc_hours=sc.times.utc_hours, grid=grid,
-                                 reference_gain=gains.caches[0].gain_fn,
-                                 reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)))
+    skies = noisemod.build_skies(
+        sc.noise,
+        sc.place,
+        months=sc.times.months,
+        utc_hours=sc.times.utc_hours,
+        grid=grid,
+        reference_gain=gains.caches[0].gain_fn,
+        reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
+    )
     temps = snr.sky_temperatures(gains, skies)
     antennas = antenna_results(sc, gains, temps, skies)
     az_cut, el_cut = snr.pattern_cuts(sc.antennas, sc.freq_hz, sc.targets)
-    cuts = PatternCuts(snr.AZIMUTH_CUT_DEG, snr.ELEVATION_CUT_DEG, {a.name: c for a, c in zip(antennas, az_cut)},
-                       {a.name: c for a, c in zip(antennas, el_cut)})
+    cuts = PatternCuts(
+        snr.AZIMUTH_CUT_DEG,
+        snr.ELEVATION_CUT_DEG,
+        {a.name: c for a, c in zip(antennas, az_cut)},
+        {a.name: c for a, c in zip(antennas, el_cut)},
+    )
     return summary(sc, skies, antennas, cuts)
 
 
-def antenna_results(sc: Scenario, gains: snr.Gains, temps: snr.Temperatures,
-                    skies: noisemod.SkySeries) -> list[AntennaResult]:
+def antenna_results(
+    sc: Scenario, gains: snr.Gains, temps: snr.Temperatures, skies: noisemod.SkySeries
+) -> list[AntennaResult]:
     """Per-antenna figures ([reference, *candidates], unranked) from gains and sky temperatures."""
     b = sc.bandwidth_hz
     t_chain = np.array([c.temperature_k for c in sc.chains])
     snr_gain = snr.snr_gain_over_reference(gains.toward, temps.total + t_chain[:, None, None])
-    deciles = [snr.snr_gain_with_scaled_kind(gains.toward, temps, t_chain, skies, kind="atmospheric", deviation=d)
-               for d in ("upper", "lower")]
+    deciles = [
+        snr.snr_gain_with_scaled_kind(gains.toward, temps, t_chain, skies, kind="atmospheric", deviation=d)
+        for d in ("upper", "lower")
+    ]
     fb = snr.front_to_back_toward(gains, sc.targets)
     nm, nh = len(sc.times.months), len(sc.times.utc_hours)
     with np.errstate(divide="ignore"):
@@ -68,23 +81,37 @@ def antenna_results(sc: Scenario, gains: snr.Gains, temps: snr.Temperatures,
         rdf = 10.0 * np.log10(gains.toward / gains.mean[:, None])
     out = []
     for k, (ant, ch) in enumerate(zip(sc.antennas, sc.chains)):
-        budget = chainmod.noise_budget(ch, temps.total[k], bandwidth_hz=b, margin_target_db=sc.receiver.margin_target_db)
+        budget = chainmod.noise_budget(
+            ch, temps.total[k], bandwidth_hz=b, margin_target_db=sc.receiver.margin_target_db
+        )
         chain_gain_db = 10.0 * np.log10(ch.gain)
-        by_comp = {n: power_dbm(temps.by_component[i, k], bandwidth_hz=b) + chain_gain_db
-                   for i, n in enumerate(skies.names)}
+        by_comp = {
+            n: power_dbm(temps.by_component[i, k], bandwidth_hz=b) + chain_gain_db for i, n in enumerate(skies.names)
+        }
         g = snr_gain[k]
-        out.append(AntennaResult(
-            name=ant.name, family=ant.family, parameters=ant.describe(),
-            gain_dbi=gain_dbi[k], mean_gain_dbi=float(10.0 * np.log10(gains.mean[k])), rdf_db=rdf[k],
-            front_to_back_db=fb[k], snr_gain_db=g, noise_dbm=budget.noise_dbm, noise_by_component_dbm=by_comp,
-            margin_db=budget.margin_db, receiver_snr_loss_db=budget.receiver_snr_loss_db,
-            preamp_gain_needed_db=budget.preamp_gain_needed_db, preamp_position=budget.preamp_position,
-            summary_snr_gain_db=float(np.sum(sc.target_weights[:, None, None] * g) / (nm * nh)),
-            worst_snr_gain_db=float(np.min(g)),
-            receiver_limited=bool(np.any(budget.margin_db < sc.receiver.margin_target_db)),
-            chain=chainmod.describe(ch, bandwidth_hz=b),
-            snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),
-        ))
+        out.append(
+            AntennaResult(
+                name=ant.name,
+                family=ant.family,
+                parameters=ant.describe(),
+                gain_dbi=gain_dbi[k],
+                mean_gain_dbi=float(10.0 * np.log10(gains.mean[k])),
+                rdf_db=rdf[k],
+                front_to_back_db=fb[k],
+                snr_gain_db=g,
+                noise_dbm=budget.noise_dbm,
+                noise_by_component_dbm=by_comp,
+                margin_db=budget.margin_db,
+                receiver_snr_loss_db=budget.receiver_snr_loss_db,
+                preamp_gain_needed_db=budget.preamp_gain_needed_db,
+                preamp_position=budget.preamp_position,
+                summary_snr_gain_db=float(np.sum(sc.target_weights[:, None, None] * g) / (nm * nh)),
+                worst_snr_gain_db=float(np.min(g)),
+                receiver_limited=bool(np.any(budget.margin_db < sc.receiver.margin_target_db)),
+                chain=chainmod.describe(ch, bandwidth_hz=b),
+                snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),
+            )
+        )
     return out
 
 
@@ -94,11 +121,19 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
     for r in antennas:
         if r.receiver_limited:
             needed = r.preamp_gain_needed_db
-            out.append(Notice("receiver-limited", r.name, {
-                "worst_margin_db": float(np.min(r.margin_db)), "margin_target_db": sc.receiver.margin_target_db,
-                "max_snr_loss_db": float(np.max(r.receiver_snr_loss_db)),
-                "preamp_gain_db": float("nan") if np.any(np.isnan(needed)) else float(np.max(needed)),
-                "preamp_position": r.preamp_position}))
+            out.append(
+                Notice(
+                    "receiver-limited",
+                    r.name,
+                    {
+                        "worst_margin_db": float(np.min(r.margin_db)),
+                        "margin_target_db": sc.receiver.margin_target_db,
+                        "max_snr_loss_db": float(np.max(r.receiver_snr_loss_db)),
+                        "preamp_gain_db": float("nan") if np.any(np.isnan(needed)) else float(np.max(needed)),
+                        "preamp_position": r.preamp_position,
+                    },
+                )
+            )
     lowest = p372.MAN_MADE_RANGE_HZ[0]
     if sc.freq_hz < lowest and sc.noise.man_made is not None:
         out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))
@@ -111,10 +146,14 @@ def summary(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResul
     reference, candidates = antennas[0], rank(antennas[1:])
     return Results(
         source=sc.source,
-        site={"name": sc.site.name, "latitude_deg": sc.site.latitude_deg, "longitude_deg": sc.site.longitude_deg,
-              "ground": "perfect" if ground is None else ground.name,
-              "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
-              "ground_permittivity": None if ground is None else ground.permittivity},
+        site={
+            "name": sc.site.name,
+            "latitude_deg": sc.site.latitude_deg,
+            "longitude_deg": sc.site.longitude_deg,
+            "ground": "perfect" if ground is None else ground.name,
+            "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
+            "ground_permittivity": None if ground is None else ground.permittivity,
+        },
         freq_hz=sc.freq_hz,
         bandwidth_hz=sc.bandwidth_hz,
         months=list(sc.times.months),
@@ -128,17 +167,28 @@ def summary(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResul
         notices=notices(sc, [reference, *candidates]),
         cuts=cuts,
         lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),
-        local_sources=[{"name": s.name, "bearing_deg": float(np.degrees(s.bearing_rad)),
-                        "elevation_deg": float(np.degrees(s.elevation_rad)),
-                        "spread_deg": float(np.degrees(s.spread_rad))} for s in sc.noise.local],
+        local_sources=[
+            {
+                "name": s.name,
+                "bearing_deg": float(np.degrees(s.bearing_rad)),
+                "elevation_deg": float(np.degrees(s.elevation_rad)),
+                "spread_deg": float(np.degrees(s.spread_rad)),
+            }
+            for s in sc.noise.local
+        ],
     )
 
 
 def _receiver_dict(sc: Scenario) -> dict:
     ch = chainmod.describe(sc.chain, bandwidth_hz=sc.bandwidth_hz)
-    return {"noise_figure_db": sc.receiver.noise_figure_db, "noise_floor_dbm": ch["noise_floor_dbm"],
-            "margin_target_db": sc.receiver.margin_target_db, "chain_noise_figure_db": ch["noise_figure_db"],
-            "chain_gain_db": ch["gain_db"], "chain_stages": ch["stages"]}
+    return {
+        "noise_figure_db": sc.receiver.noise_figure_db,
+        "noise_floor_dbm": ch["noise_floor_dbm"],
+        "margin_target_db": sc.receiver.margin_target_db,
+        "chain_noise_figure_db": ch["noise_figure_db"],
+        "chain_gain_db": ch["gain_db"],
+        "chain_stages": ch["stages"],
+    }
 
 
 def _target_dict(t, w) -> dict:

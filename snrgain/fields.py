@@ -28,6 +28,7 @@ SI_CONTEXT = {"si": True}
 def _si(info: ValidationInfo | None) -> bool:
     return bool(info is not None and isinstance(info.context, dict) and info.context.get("si"))
 
+
 _SI_SYMBOL = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg", "time": "s"}
 
 
@@ -185,7 +186,6 @@ def ground_name_check(value):
 
 
 GroundField = Annotated[GroundInput, BeforeValidator(ground_name_check)]
-
 
 
 def lengths(value, n: int, *, what: str, example: str, limit_m: float) -> tuple[float, ...]:

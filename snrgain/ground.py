@@ -78,7 +78,9 @@ def ground_by_name(name: str) -> Ground:
         return GROUND_TYPES[name]
     except KeyError:
         valid = ", ".join(repr(k) for k in [*GROUND_TYPES, PERFECT])
-        raise ValueError(f"ground must be one of {valid}, or given by conductivity and permittivity; got {name!r}") from None
+        raise ValueError(
+            f"ground must be one of {valid}, or given by conductivity and permittivity; got {name!r}"
+        ) from None
 
 
 def fresnel_vertical(elevation_rad, eps_c):

@@ -127,8 +127,9 @@ def from_series_shunt(freq_hz: float, z_series: complex, y_shunt: complex) -> Li
     return LineConstants(float(freq_hz), complex(z_series), complex(y_shunt), complex(gamma), complex(z0))
 
 
-def measured_constants(freq_hz: float, *, velocity_factor: float, attenuation_db_per_100m: float,
-                       z0_ohm: complex) -> LineConstants:
+def measured_constants(
+    freq_hz: float, *, velocity_factor: float, attenuation_db_per_100m: float, z0_ohm: complex
+) -> LineConstants:
     """Line constants from measured velocity factor, attenuation and Z0."""
     if not 0 < velocity_factor <= 1:
         raise ValueError(f"velocity_factor must lie in (0, 1], got {velocity_factor!r}")
@@ -146,7 +147,9 @@ def penetration_depth(freq_hz, ground: Ground | None) -> complex:
     if ground is None:
         return 0j
     omega = 2 * np.pi * freq_hz
-    return 1.0 / np.sqrt(1j * omega * MU0_H_PER_M * (ground.conductivity_s_per_m + 1j * omega * EPS0_F_PER_M * ground.permittivity))
+    return 1.0 / np.sqrt(
+        1j * omega * MU0_H_PER_M * (ground.conductivity_s_per_m + 1j * omega * EPS0_F_PER_M * ground.permittivity)
+    )
 
 
 def wire_internal_impedance(freq_hz, radius_m, conductivity_s_per_m=COPPER_S_PER_M) -> complex:
@@ -166,8 +169,14 @@ def ground_return_term(freq_hz, *, height_m, radius_m, ground: Ground | None) ->
     return complex(1j * omega * MU0_H_PER_M / (2 * np.pi) * np.log(2 * (height_m + p) / radius_m))
 
 
-def overhead_wire(freq_hz: float, *, radius_m: float, height_m: float, ground: Ground | None,
-                  wire_conductivity_s_per_m: float = COPPER_S_PER_M) -> LineConstants:
+def overhead_wire(
+    freq_hz: float,
+    *,
+    radius_m: float,
+    height_m: float,
+    ground: Ground | None,
+    wire_conductivity_s_per_m: float = COPPER_S_PER_M,
+) -> LineConstants:
     """Constants of a single wire in the air over ground (module docstring)."""
     _check_geometry(radius_m, height_m)
     z = wire_internal_impedance(freq_hz, radius_m, wire_conductivity_s_per_m)
@@ -177,9 +186,17 @@ def overhead_wire(freq_hz: float, *, radius_m: float, height_m: float, ground: G
     return from_series_shunt(freq_hz, z, y)
 
 
-def insulated_on_ground(freq_hz: float, *, radius_m: float, insulation_radius_m: float, insulation_permittivity: float,
-                        ground: Ground, height_m: float | None = None, depth_m: float = 0.0,
-                        wire_conductivity_s_per_m: float = COPPER_S_PER_M) -> LineConstants:
+def insulated_on_ground(
+    freq_hz: float,
+    *,
+    radius_m: float,
+    insulation_radius_m: float,
+    insulation_permittivity: float,
+    ground: Ground,
+    height_m: float | None = None,
+    depth_m: float = 0.0,
+    wire_conductivity_s_per_m: float = COPPER_S_PER_M,
+) -> LineConstants:
     """Constants of an insulated wire lying on (height_m) or buried in (depth_m) the soil (module docstring)."""
     if ground is None:
         raise ValueError("a wire on the ground needs a real ground (conductivity and permittivity), not 'perfect'")

@@ -169,25 +169,48 @@ def _symmetric_front_back(antenna, freq_hz) -> bool:
     return bool(np.allclose(a, b, rtol=1e-6, atol=0))
 
 
-def locate(readings: list[Reading], *, freq_hz: float, bandwidth_hz: float, n_sources: int = 1,
-           fit_elevation: bool = False, elevation_deg: float = 5.0, chain_gain_db: float = 0.0,
-           nside: int = 16, seed: int = 0) -> LocateResult:
+def locate(
+    readings: list[Reading],
+    *,
+    freq_hz: float,
+    bandwidth_hz: float,
+    n_sources: int = 1,
+    fit_elevation: bool = False,
+    elevation_deg: float = 5.0,
+    chain_gain_db: float = 0.0,
+    nside: int = 16,
+    seed: int = 0,
+) -> LocateResult:
     """Fit ``n_sources`` compact sources plus a diffuse background to the readings."""
     if n_sources < 1:
         raise LocateError("n_sources must be >= 1")
     n_unknown = 1 + n_sources * (3 if fit_elevation else 2)
     if len(readings) < n_unknown + 1:
-        raise LocateError(f"too few readings: {len(readings)} for {n_unknown} unknowns (background level and "
-                          f"{'bearing, elevation and level' if fit_elevation else 'bearing and level'} per source); "
-                          f"take at least {n_unknown + 1}, e.g. a loop rotated in 30 deg steps")
+        raise LocateError(
+            f"too few readings: {len(readings)} for {n_unknown} unknowns (background level and "
+            f"{'bearing, elevation and level' if fit_elevation else 'bearing and level'} per source); "
+            f"take at least {n_unknown + 1}, e.g. a loop rotated in 30 deg steps"
+        )
     levels = np.array([r.level_dbm for r in readings], dtype=float)
     if not np.all(np.isfinite(levels)):
         raise LocateError("every reading needs a finite level")
     grid = upper_hemisphere(nside)
-    bg = sky.diffuse_component("background", kind="man-made", level=p372.NoiseLevel(0.0, 0.0, 0.0), directions=grid,
-                               elevation="low", elevation_params={"scale_rad": np.radians(10.0)})
-    t_bg = np.array([sky.weighted_temperature_k(r.antenna.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad),
-                                                bg.weight_k_sr) for r in readings])  # for Fa 0 dB background
+    bg = sky.diffuse_component(
+        "background",
+        kind="man-made",
+        level=p372.NoiseLevel(0.0, 0.0, 0.0),
+        directions=grid,
+        elevation="low",
+        elevation_params={"scale_rad": np.radians(10.0)},
+    )
+    t_bg = np.array(
+        [
+            sky.weighted_temperature_k(
+                r.antenna.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad), bg.weight_k_sr
+            )
+            for r in readings
+        ]
+    )  # for Fa 0 dB background
     ktb_g = 10 ** ((power_dbm(1.0, bandwidth_hz=bandwidth_hz) + chain_gain_db) / 10)  # mW per K
 
     def unpack(x):
@@ -204,7 +227,7 @@ def locate(readings: list[Reading], *, freq_hz: float, bandwidth_hz: float, n_so
         t = 10 ** (b / 10) * t_bg
         for az, el, log_s in srcs:
             g = np.array([r.antenna.gain_linear(freq_hz, np.array([az]), np.array([el]))[0] for r in readings])
-            t = t + 10 ** log_s * g / (4 * np.pi)
+            t = t + 10**log_s * g / (4 * np.pi)
         return 10 * np.log10(np.maximum(t * ktb_g, 1e-300))
 
     def resid(x):
@@ -247,18 +270,27 @@ def locate(readings: list[Reading], *, freq_hz: float, bandwidth_hz: float, n_so
         j = 1 + s * (3 if fit_elevation else 2)
         sig = float(np.degrees(np.sqrt(abs(cov[j, j])))) if ok_cov else float("inf")
         # Level on the reference monopole for the fitted strength.
-        t_ref = 10 ** log_s * float(sky.reference_monopole_gain(el)) / (4 * np.pi)
-        fitted.append(FittedSource(float(np.degrees(az) % 360), sig, float(np.degrees(el)),
-                                   float(p372.temperature_to_fa_db(t_ref)), symmetric))
+        t_ref = 10**log_s * float(sky.reference_monopole_gain(el)) / (4 * np.pi)
+        fitted.append(
+            FittedSource(
+                float(np.degrees(az) % 360),
+                sig,
+                float(np.degrees(el)),
+                float(p372.temperature_to_fa_db(t_ref)),
+                symmetric,
+            )
+        )
     ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
     if ok:
         msg = "fit converged"
         if symmetric:
             msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
     else:
-        msg = ("the readings do not constrain a direction (bearing uncertainty over "
-               f"{MAX_BEARING_SIGMA_DEG:g} deg or a singular fit); take readings on a loop rotated in steps, or on "
-               "directional antennas pointing different ways")
+        msg = (
+            "the readings do not constrain a direction (bearing uncertainty over "
+            f"{MAX_BEARING_SIGMA_DEG:g} deg or a singular fit); take readings on a loop rotated in steps, or on "
+            "directional antennas pointing different ways"
+        )
     background = float(b)  # the background's Fa on the reference monopole: scale of the Fa-0-dB component
     return LocateResult(ok, msg, fitted, background, rms, model_dbm(x), levels, [r.label for r in readings])
 
@@ -269,9 +301,10 @@ def scenario_blocks(res: LocateResult) -> str:
     for i, s in enumerate(res.sources):
         note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
         blocks.append(
-            f'\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n'
+            f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
             f'name = "located source {i + 1}"\n'
-            f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n")
+            f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
+        )
     return "".join(blocks)
 
 
@@ -284,8 +317,16 @@ def with_sources(text: str, res: LocateResult) -> str:
 
 def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
     """JSON-ready result (units in the keys)."""
-    return {"ok": res.ok, "message": res.message, "frequency_hz": freq_hz, "bandwidth_hz": bandwidth_hz,
-            "background_fa_db": res.background_fa_db, "residual_rms_db": res.residual_rms_db,
-            "sources": [vars(s) for s in res.sources],
-            "readings": [{"label": lab, "level_dbm": lv, "fitted_dbm": p}
-                         for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)]}
+    return {
+        "ok": res.ok,
+        "message": res.message,
+        "frequency_hz": freq_hz,
+        "bandwidth_hz": bandwidth_hz,
+        "background_fa_db": res.background_fa_db,
+        "residual_rms_db": res.residual_rms_db,
+        "sources": [vars(s) for s in res.sources],
+        "readings": [
+            {"label": lab, "level_dbm": lv, "fitted_dbm": p}
+            for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)
+        ],
+    }

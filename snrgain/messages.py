@@ -16,12 +16,16 @@ def notice_text(n: Notice) -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one)."""
     v = n.values
     if n.code == "receiver-limited":
-        return (f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
-                f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
-                f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"]))
+        return (
+            f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
+            f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
+            f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
+        )
     if n.code == "man-made-extrapolated":
-        return (f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "
-                "is extrapolated")
+        return (
+            f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "
+            "is extrapolated"
+        )
     detail = ", ".join(f"{k} = {val}" for k, val in sorted(v.items()))
     return f"{n.antenna + ': ' if n.antenna else ''}{n.code}" + (f" ({detail})" if detail else "")
 
@@ -29,8 +33,10 @@ def notice_text(n: Notice) -> str:
 def preamp_advice_text(gain_db: float, position: str | None) -> str:
     """What preamplifier would meet the margin target, in words (NaN gain: none would)."""
     if gain_db is None or not np.isfinite(gain_db):
-        return ("No preamplifier gain reaches the target at every hour; a quieter preamplifier, a shorter or "
-                "lower-loss feed line, or a quieter receiver would.")
+        return (
+            "No preamplifier gain reaches the target at every hour; a quieter preamplifier, a shorter or "
+            "lower-loss feed line, or a quieter receiver would."
+        )
     if position == "as placed":
         which = "the chain's preamplifier"
     else:

@@ -34,6 +34,7 @@ if TYPE_CHECKING:  # the sky machinery (healpy) is imported where it is used
 
 # -- settings ---------------------------------------------------------------------------------------------------
 
+
 @dataclass(frozen=True)
 class Sector:
     """Brightness ``contrast_db`` higher from ``start_rad`` clockwise to ``stop_rad`` (compass bearings) [rad, dB]."""
@@ -117,6 +118,7 @@ class Place:
 
 # -- the components -----------------------------------------------------------------------------------------------
 
+
 def _sector_params(sector: Sector | None):
     if sector is None:
         return "uniform", {}
@@ -125,13 +127,23 @@ def _sector_params(sector: Sector | None):
 
 def is_daytime(place: Place, *, month: int, utc_hour: float) -> bool:
     """Sun above the horizon at the site on the 15th of the month at the UTC hour."""
-    el = solar.solar_elevation_rad(np.radians(place.latitude_deg), np.radians(place.longitude_deg),
-                                   day_of_year=solar.mid_month_day_of_year(month), utc_hour=utc_hour)
+    el = solar.solar_elevation_rad(
+        np.radians(place.latitude_deg),
+        np.radians(place.longitude_deg),
+        day_of_year=solar.mid_month_day_of_year(month),
+        utc_hour=utc_hour,
+    )
     return bool(el > 0.0)
 
 
-def static_components(settings: NoiseSettings, place: Place, grid: Directions, *, reference_gain=None,
-                      reference_chain_gain_db: float = 0.0) -> list[SkyComponent]:
+def static_components(
+    settings: NoiseSettings,
+    place: Place,
+    grid: Directions,
+    *,
+    reference_gain=None,
+    reference_chain_gain_db: float = 0.0,
+) -> list[SkyComponent]:
     """Components that do not change with the hour: man-made and local sources.
 
     ``reference_gain(azimuth_rad, elevation_rad) -> linear gain`` is the antenna a local source's ``level_dbm``
@@ -144,22 +156,39 @@ def static_components(settings: NoiseSettings, place: Place, grid: Directions, *
     mm = settings.man_made
     if mm is not None:
         az_shape, az_params = _sector_params(mm.sector)
-        out.append(sky.diffuse_component(
-            f"man-made ({mm.environment})", kind="man-made",
-            level=p372.man_made(place.freq_hz, environment=mm.environment), directions=grid,
-            elevation="low", elevation_params={"scale_rad": mm.elevation_scale_rad},
-            azimuth=az_shape, azimuth_params=az_params,
-        ))
+        out.append(
+            sky.diffuse_component(
+                f"man-made ({mm.environment})",
+                kind="man-made",
+                level=p372.man_made(place.freq_hz, environment=mm.environment),
+                directions=grid,
+                elevation="low",
+                elevation_params={"scale_rad": mm.elevation_scale_rad},
+                azimuth=az_shape,
+                azimuth_params=az_params,
+            )
+        )
     for src in settings.local:
         if src.fa_db is not None:
-            out.append(sky.compact_component(src.name, level=p372.NoiseLevel(src.fa_db, 0.0, 0.0),
-                                             azimuth_rad=src.bearing_rad, elevation_rad=src.elevation_rad,
-                                             spread_rad=src.spread_rad))
+            out.append(
+                sky.compact_component(
+                    src.name,
+                    level=p372.NoiseLevel(src.fa_db, 0.0, 0.0),
+                    azimuth_rad=src.bearing_rad,
+                    elevation_rad=src.elevation_rad,
+                    spread_rad=src.spread_rad,
+                )
+            )
             continue
         if reference_gain is None:
             raise ValueError(f"local source {src.name!r}: a level read on the reference antenna needs that antenna")
-        unit = sky.compact_component(src.name, level=p372.NoiseLevel(0.0, 0.0, 0.0), azimuth_rad=src.bearing_rad,
-                                     elevation_rad=src.elevation_rad, spread_rad=src.spread_rad)
+        unit = sky.compact_component(
+            src.name,
+            level=p372.NoiseLevel(0.0, 0.0, 0.0),
+            azimuth_rad=src.bearing_rad,
+            elevation_rad=src.elevation_rad,
+            spread_rad=src.spread_rad,
+        )
         d = unit.directions
         t_ref = sky.weighted_temperature_k(reference_gain(d.azimuth_rad, d.elevation_rad), unit.weight_k_sr)
         if not t_ref > 0:
@@ -179,14 +208,20 @@ def atmospheric_level(settings: NoiseSettings, place: Place, *, month: int, utc_
     if at is None:
         raise ValueError("the settings have no atmospheric noise")
     if at.model == "p372":
-        return "atmospheric (P.372)", p372.atmospheric(place.latitude_deg, place.longitude_deg, month=month,
-                                                       freq_hz=place.freq_hz, utc_hour=utc_hour,
-                                                       data_dir=settings.p372_dir)
+        return "atmospheric (P.372)", p372.atmospheric(
+            place.latitude_deg,
+            place.longitude_deg,
+            month=month,
+            freq_hz=place.freq_hz,
+            utc_hour=utc_hour,
+            data_dir=settings.p372_dir,
+        )
     return "atmospheric (given)", p372.NoiseLevel(at.fa_db, at.upper_decile_db, at.lower_decile_db)
 
 
-def atmospheric_component(settings: NoiseSettings, place: Place, grid: Directions, *, month: int,
-                          utc_hour: float) -> SkyComponent | None:
+def atmospheric_component(
+    settings: NoiseSettings, place: Place, grid: Directions, *, month: int, utc_hour: float
+) -> SkyComponent | None:
     """Atmospheric noise for the hour: its level spread by the arrival model (None if there is none)."""
     at = settings.atmospheric
     if at is None:
@@ -195,19 +230,34 @@ def atmospheric_component(settings: NoiseSettings, place: Place, grid: Direction
 
     name, level = atmospheric_level(settings, place, month=month, utc_hour=utc_hour)
     if at.arrival == "storms":
-        return storms.storm_component(place.latitude_deg, place.longitude_deg, month=month, utc_hour=utc_hour,
-                                      freq_hz=place.freq_hz, level=level, directions=grid,
-                                      layer_height_m=at.layer_height_m, data_dir=settings.p372_dir, name=name)
+        return storms.storm_component(
+            place.latitude_deg,
+            place.longitude_deg,
+            month=month,
+            utc_hour=utc_hour,
+            freq_hz=place.freq_hz,
+            level=level,
+            directions=grid,
+            layer_height_m=at.layer_height_m,
+            data_dir=settings.p372_dir,
+            name=name,
+        )
     az_shape, az_params = _sector_params(at.sector if at.arrival == "sector" else None)
     return sky.diffuse_component(
-        name, kind="atmospheric", level=level, directions=grid,
-        elevation="band", elevation_params={"center_rad": at.elevation_center_rad, "width_rad": at.elevation_width_rad},
-        azimuth=az_shape, azimuth_params=az_params,
+        name,
+        kind="atmospheric",
+        level=level,
+        directions=grid,
+        elevation="band",
+        elevation_params={"center_rad": at.elevation_center_rad, "width_rad": at.elevation_width_rad},
+        azimuth=az_shape,
+        azimuth_params=az_params,
     )
 
 
-def galactic_component(settings: NoiseSettings, place: Place, grid: Directions, *, month: int,
-                       utc_hour: float) -> SkyComponent | None:
+def galactic_component(
+    settings: NoiseSettings, place: Place, grid: Directions, *, month: int, utc_hour: float
+) -> SkyComponent | None:
     """Galactic noise through the day or night ionosphere at the site (None if there is none)."""
     gal = settings.galactic
     if gal is None:
@@ -216,18 +266,24 @@ def galactic_component(settings: NoiseSettings, place: Place, grid: Directions, 
 
     day = is_daytime(place, month=month, utc_hour=utc_hour)
     fc = gal.critical_frequency_day_hz if day else gal.critical_frequency_night_hz
-    return sky.galactic_component(place.freq_hz, directions=grid, critical_freq_hz=fc, layer_height_m=gal.layer_height_m)
+    return sky.galactic_component(
+        place.freq_hz, directions=grid, critical_freq_hz=fc, layer_height_m=gal.layer_height_m
+    )
 
 
-def hourly_components(settings: NoiseSettings, place: Place, grid: Directions, *, month: int,
-                      utc_hour: float) -> list[SkyComponent]:
+def hourly_components(
+    settings: NoiseSettings, place: Place, grid: Directions, *, month: int, utc_hour: float
+) -> list[SkyComponent]:
     """Components that change with the hour: atmospheric noise, galactic noise (day or night ionosphere)."""
-    comps = [atmospheric_component(settings, place, grid, month=month, utc_hour=utc_hour),
-             galactic_component(settings, place, grid, month=month, utc_hour=utc_hour)]
+    comps = [
+        atmospheric_component(settings, place, grid, month=month, utc_hour=utc_hour),
+        galactic_component(settings, place, grid, month=month, utc_hour=utc_hour),
+    ]
     return [c for c in comps if c is not None]
 
 
 # -- the series -------------------------------------------------------------------------------------------------
+
 
 @dataclass
 class SkySeries:
@@ -260,17 +316,28 @@ class SkySeries:
     @property
     def components(self) -> dict[str, dict]:
         """name -> {"kind", "fa_db", "du_db", "dl_db"} with (month, hour) arrays."""
-        return {n: {"kind": k, "fa_db": self.fa_db[i], "du_db": self.du_db[i], "dl_db": self.dl_db[i]}
-                for i, (n, k) in enumerate(zip(self.names, self.kinds))}
+        return {
+            n: {"kind": k, "fa_db": self.fa_db[i], "du_db": self.du_db[i], "dl_db": self.dl_db[i]}
+            for i, (n, k) in enumerate(zip(self.names, self.kinds))
+        }
 
     def index(self, kind: str) -> list[int]:
         """Indices of the components of a kind."""
         return [i for i, k in enumerate(self.kinds) if k == kind]
 
 
-def build_skies(settings: NoiseSettings, place: Place, *, months, utc_hours, grid: Directions | None = None,
-                nside: int = 32, maps: bool = True, reference_gain=None,
-                reference_chain_gain_db: float = 0.0) -> SkySeries:
+def build_skies(
+    settings: NoiseSettings,
+    place: Place,
+    *,
+    months,
+    utc_hours,
+    grid: Directions | None = None,
+    nside: int = 32,
+    maps: bool = True,
+    reference_gain=None,
+    reference_chain_gain_db: float = 0.0,
+) -> SkySeries:
     """The noise sky for every month and UTC hour.
 
     ``maps=False`` keeps only the levels (the atmospheric storm map, the costly part, is not spread over the
@@ -280,8 +347,9 @@ def build_skies(settings: NoiseSettings, place: Place, *, months, utc_hours, gri
 
     grid = upper_hemisphere(nside) if grid is None else grid
     months, utc_hours = tuple(int(m) for m in months), tuple(float(h) for h in utc_hours)
-    static = static_components(settings, place, grid, reference_gain=reference_gain,
-                               reference_chain_gain_db=reference_chain_gain_db)
+    static = static_components(
+        settings, place, grid, reference_gain=reference_gain, reference_chain_gain_db=reference_chain_gain_db
+    )
     nm, nh = len(months), len(utc_hours)
     names: list[str] = []
     kinds: list[str] = []
@@ -315,5 +383,18 @@ def build_skies(settings: NoiseSettings, place: Place, *, months, utc_hours, gri
     per = np.array([levels[n] for n in names]) if names else np.full((0, 3, nm, nh), np.nan)
     with np.errstate(divide="ignore"):
         power_sum = 10.0 * np.log10(np.nansum(10.0 ** (per[:, 0] / 10.0), axis=0))
-    return SkySeries(months, utc_hours, tuple(names), tuple(kinds), per[:, 0], per[:, 1], per[:, 2],
-                     total[0], total[1], total[2], power_sum, daytime, sky_maps)
+    return SkySeries(
+        months,
+        utc_hours,
+        tuple(names),
+        tuple(kinds),
+        per[:, 0],
+        per[:, 1],
+        per[:, 2],
+        total[0],
+        total[1],
+        total[2],
+        power_sum,
+        daytime,
+        sky_maps,
+    )

@@ -9,9 +9,14 @@ atmospheric noise at one hour from the storm model (noisemodels.storms).
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from snrgain import noise as noisemod
+
+if TYPE_CHECKING:
+    from noisemodels.sky import SkyComponent
 
 SECTOR_DEG = 30.0
 ELEVATION_BANDS_DEG = (0, 10, 20, 30, 45, 60, 90)
@@ -45,20 +50,28 @@ def noise_over_day(
     grid = upper_hemisphere(nside)
     hours = np.arange(24.0)
     skies = noisemod.build_skies(settings, place, months=[month], utc_hours=hours, grid=grid, maps=False)
-    comps = {("atmospheric" if kind == "atmospheric" else name): {k: getattr(skies, k)[i, 0]
-                                                                  for k in ("fa_db", "du_db", "dl_db")}
-             for i, (name, kind) in enumerate(zip(skies.names, skies.kinds))}
+    comps = {
+        ("atmospheric" if kind == "atmospheric" else name): {
+            k: getattr(skies, k)[i, 0] for k in ("fa_db", "du_db", "dl_db")
+        }
+        for i, (name, kind) in enumerate(zip(skies.names, skies.kinds))
+    }
     total = {"fa_db": skies.total_fa_db[0], "du_db": skies.total_du_db[0], "dl_db": skies.total_dl_db[0]}
     comp = noisemod.atmospheric_component(settings, place, grid, month=month, utc_hour=hour)
     return {
-        "latitude_deg": lat_deg, "longitude_deg": lon_deg, "month": month, "frequency_hz": freq_hz,
-        "utc_hours": hours, "components": comps, "total": total,
+        "latitude_deg": lat_deg,
+        "longitude_deg": lon_deg,
+        "month": month,
+        "frequency_hz": freq_hz,
+        "utc_hours": hours,
+        "components": comps,
+        "total": total,
         "median_power_sum_fa_db": skies.median_power_sum_fa_db[0],
         "directions": direction_distribution(comp, utc_hour=hour),
     }
 
 
-def direction_distribution(comp: sky.SkyComponent, *, utc_hour: float) -> dict:
+def direction_distribution(comp: SkyComponent, *, utc_hour: float) -> dict:
     """Shares of a component's power on the reference monopole by bearing sector and elevation band."""
     from noisemodels import sky
 
@@ -72,8 +85,13 @@ def direction_distribution(comp: sky.SkyComponent, *, utc_hour: float) -> dict:
     for k in range(int(360 / SECTOR_DEG)):
         m = idx == k
         share = p[m].sum() / total
-        sectors.append({"bearing_deg": k * SECTOR_DEG, "share_percent": 100 * share,
-                        "mean_elevation_deg": float(np.sum(p[m] * el[m]) / p[m].sum()) if share > 0 else None})
+        sectors.append(
+            {
+                "bearing_deg": k * SECTOR_DEG,
+                "share_percent": 100 * share,
+                "mean_elevation_deg": float(np.sum(p[m] * el[m]) / p[m].sum()) if share > 0 else None,
+            }
+        )
     bands = []
     for lo, hi in zip(ELEVATION_BANDS_DEG[:-1], ELEVATION_BANDS_DEG[1:]):
         m = (el >= lo) & (el < hi) if hi < 90 else (el >= lo)

@@ -18,8 +18,19 @@ def to_json(results: Results) -> str:
 
 
 CSV_COLUMNS = [
-    "rank", "antenna", "family", "target", "month", "utc_hour", "snr_gain_db", "gain_toward_target_dbi",
-    "rdf_db", "front_to_back_db", "noise_dbm", "margin_db", "receiver_snr_loss_db",
+    "rank",
+    "antenna",
+    "family",
+    "target",
+    "month",
+    "utc_hour",
+    "snr_gain_db",
+    "gain_toward_target_dbi",
+    "rdf_db",
+    "front_to_back_db",
+    "noise_dbm",
+    "margin_db",
+    "receiver_snr_loss_db",
 ]
 
 
@@ -32,12 +43,23 @@ def to_csv(results: Results) -> str:
         for ti, t in enumerate(results.targets):
             for mi, month in enumerate(results.months):
                 for hi, hour in enumerate(results.utc_hours):
-                    w.writerow([
-                        rank, a.name, a.family, t["name"], month, f"{hour:g}",
-                        f"{a.snr_gain_db[ti, mi, hi]:.3f}", f"{a.gain_dbi[ti]:.3f}", f"{a.rdf_db[ti]:.3f}",
-                        f"{a.front_to_back_db[ti]:.3f}", f"{a.noise_dbm[mi, hi]:.3f}", f"{a.margin_db[mi, hi]:.3f}",
-                        f"{a.receiver_snr_loss_db[mi, hi]:.3f}",
-                    ])
+                    w.writerow(
+                        [
+                            rank,
+                            a.name,
+                            a.family,
+                            t["name"],
+                            month,
+                            f"{hour:g}",
+                            f"{a.snr_gain_db[ti, mi, hi]:.3f}",
+                            f"{a.gain_dbi[ti]:.3f}",
+                            f"{a.rdf_db[ti]:.3f}",
+                            f"{a.front_to_back_db[ti]:.3f}",
+                            f"{a.noise_dbm[mi, hi]:.3f}",
+                            f"{a.margin_db[mi, hi]:.3f}",
+                            f"{a.receiver_snr_loss_db[mi, hi]:.3f}",
+                        ]
+                    )
     return buf.getvalue()
 
 
@@ -81,10 +103,15 @@ def ranking_table(results: Results):
         else:
             noise_bits.append(f"{name}: Fa {finite.min():.1f} to {finite.max():.1f} dB{some_screened}")
     head.append("Noise on P.372's reference monopole: " + "; ".join(noise_bits) + "\n")
-    stages = ", ".join(f"{st['name']} {st['gain_db']:+.1f} dB" for st in r.receiver["chain_stages"][:-1]
-                       if abs(st["gain_db"]) > 1e-9 or st["noise_figure_db"] > 1e-9)
-    head.append(f"Receiver: NF {r.receiver['noise_figure_db']:.1f} dB; chain NF {r.receiver['chain_noise_figure_db']:.1f} dB"
-                f"{' (' + stages + ')' if stages else ''}; floor at the receiver {r.receiver['noise_floor_dbm']:.1f} dBm\n")
+    stages = ", ".join(
+        f"{st['name']} {st['gain_db']:+.1f} dB"
+        for st in r.receiver["chain_stages"][:-1]
+        if abs(st["gain_db"]) > 1e-9 or st["noise_figure_db"] > 1e-9
+    )
+    head.append(
+        f"Receiver: NF {r.receiver['noise_figure_db']:.1f} dB; chain NF {r.receiver['chain_noise_figure_db']:.1f} dB"
+        f"{' (' + stages + ')' if stages else ''}; floor at the receiver {r.receiver['noise_floor_dbm']:.1f} dBm\n"
+    )
 
     t = Table(title=f"SNR gain over {r.reference.name}, mean over targets and hours", title_justify="left")
     t.add_column("#", justify="right")
@@ -100,10 +127,19 @@ def ranking_table(results: Results):
         noise = float(np.median(a.noise_dbm))
         margin = float(np.min(a.margin_db))
         t.add_row(
-            rank, a.name, _f(a.summary_snr_gain_db), _f(a.worst_snr_gain_db), _f(np.dot(w, a.rdf_db)),
-            _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))), _f(10 * np.log10(np.dot(w, 10 ** (a.gain_dbi / 10)))),
-            _f(noise, "{:.1f}"), s_units(noise),
-            Text(_f(margin, "{:.1f}") + (" !" if a.receiver_limited else ""), style="bold red" if a.receiver_limited else None),
+            rank,
+            a.name,
+            _f(a.summary_snr_gain_db),
+            _f(a.worst_snr_gain_db),
+            _f(np.dot(w, a.rdf_db)),
+            _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))),
+            _f(10 * np.log10(np.dot(w, 10 ** (a.gain_dbi / 10)))),
+            _f(noise, "{:.1f}"),
+            s_units(noise),
+            Text(
+                _f(margin, "{:.1f}") + (" !" if a.receiver_limited else ""),
+                style="bold red" if a.receiver_limited else None,
+            ),
             _preamp_cell(a),
             style=style,
         )
@@ -118,9 +154,18 @@ def ranking_table(results: Results):
         extra = f"\n{tg['bearing_deg']:.0f} deg, {tg['elevation_min_deg']:.0f}-{tg['elevation_max_deg']:.0f} deg el"
         pt.add_column(tg["name"] + extra, justify="right")
     for a in r.candidates:
-        pt.add_row(a.name, *[f"{_f(a.snr_gain_db[i].mean())} ({_f(a.snr_gain_db[i].min())})  RDF {_f(a.rdf_db[i])}"
-                             for i in range(len(r.targets))])
-    foot = Text("wtd: weighted mean over the targets (see the per-target table); noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst hour); "
-                "'!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the target "
-                "('none' if no gain can).", style="dim")
+        pt.add_row(
+            a.name,
+            *[
+                f"{_f(a.snr_gain_db[i].mean())} ({_f(a.snr_gain_db[i].min())})  RDF {_f(a.rdf_db[i])}"
+                for i in range(len(r.targets))
+            ],
+        )
+    foot = Text(
+        "wtd: weighted mean over the targets (see the per-target table); noise: sky noise delivered to the receiver "
+        "input; margin: that minus the chain's noise floor (worst hour); "
+        "'!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the target "
+        "('none' if no gain can).",
+        style="dim",
+    )
     return Group(head, t, pt, foot)

@@ -44,8 +44,17 @@ def _label(a, results):
     return f"{a.name} (reference)" if a is results.reference else a.name
 
 
-def _axes(ax, *, n: int = 1, polar: bool = False, figsize=(8.0, 5.0), columns: bool = False, width_ratios=None,
-          sharex: bool = False, sharey: bool = False):
+def _axes(
+    ax,
+    *,
+    n: int = 1,
+    polar: bool = False,
+    figsize=(8.0, 5.0),
+    columns: bool = False,
+    width_ratios=None,
+    sharex: bool = False,
+    sharey: bool = False,
+):
     """The figure and axes to draw on: those given (one Axes, or a sequence of n), or new ones on a new Figure
     (n panels in a column, or in a row with ``columns``)."""
     if ax is None:
@@ -53,8 +62,13 @@ def _axes(ax, *, n: int = 1, polar: bool = False, figsize=(8.0, 5.0), columns: b
         if polar:
             return fig, [fig.add_subplot(projection="polar")]
         shape = (1, n) if columns else (n, 1)
-        grid = fig.subplots(*shape, squeeze=False, sharex=sharex, sharey=sharey,
-                            gridspec_kw={"width_ratios": width_ratios} if width_ratios else None)
+        grid = fig.subplots(
+            *shape,
+            squeeze=False,
+            sharex=sharex,
+            sharey=sharey,
+            gridspec_kw={"width_ratios": width_ratios} if width_ratios else None,
+        )
         return fig, list(grid.ravel())
     axes = list(ax) if isinstance(ax, (Sequence, np.ndarray)) else [ax]
     if len(axes) != n:
@@ -87,15 +101,36 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     ax.set_yticklabels([f"{floor + t:.0f}" for t in ticks], fontsize=8)
     ax.set_rlabel_position(135)
     for i, t in enumerate(results.targets):
-        ax.annotate("", xy=(np.radians(t["bearing_deg"]), FLOOR_SPAN_DB + 2), xytext=(0, 0),
-                    arrowprops={"arrowstyle": "->", "color": "black" if i == target_index else "0.6", "lw": 1.2})
-        ax.text(np.radians(t["bearing_deg"]), FLOOR_SPAN_DB + 6, t["name"], ha="center", va="center", fontsize=9,
-                fontweight="bold" if i == target_index else "normal")
+        ax.annotate(
+            "",
+            xy=(np.radians(t["bearing_deg"]), FLOOR_SPAN_DB + 2),
+            xytext=(0, 0),
+            arrowprops={"arrowstyle": "->", "color": "black" if i == target_index else "0.6", "lw": 1.2},
+        )
+        ax.text(
+            np.radians(t["bearing_deg"]),
+            FLOOR_SPAN_DB + 6,
+            t["name"],
+            ha="center",
+            va="center",
+            fontsize=9,
+            fontweight="bold" if i == target_index else "normal",
+        )
     for s in results.local_sources:
-        ax.plot([np.radians(s["bearing_deg"])], [FLOOR_SPAN_DB], marker="X", ms=11, color="crimson", ls="none",
-                label=f"noise: {s['name']}")
-    ax.set_title(f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
-                 f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz", pad=28)
+        ax.plot(
+            [np.radians(s["bearing_deg"])],
+            [FLOOR_SPAN_DB],
+            marker="X",
+            ms=11,
+            color="crimson",
+            ls="none",
+            label=f"noise: {s['name']}",
+        )
+    ax.set_title(
+        f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
+        f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz",
+        pad=28,
+    )
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     if own:
         fig.tight_layout()
@@ -108,8 +143,13 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     fd = results.cuts
     tgt = results.targets[target_index]
     fig, (ax,) = _axes(ax, figsize=(8.0, 4.8))
-    ax.axvspan(tgt["elevation_min_deg"], max(tgt["elevation_max_deg"], tgt["elevation_min_deg"] + 0.5),
-               color="gold", alpha=0.3, label=f"arrivals from '{tgt['name']}'")
+    ax.axvspan(
+        tgt["elevation_min_deg"],
+        max(tgt["elevation_max_deg"], tgt["elevation_min_deg"] + 0.5),
+        color="gold",
+        alpha=0.3,
+        label=f"arrivals from '{tgt['name']}'",
+    )
     lows = []
     for a, col in zip(_antennas(results), _colors(len(_antennas(results)))):
         g = fd.elevation[a.name][target_index]
@@ -123,7 +163,9 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     ax.set_xlim(0, 90)
     ax.set_xlabel("elevation (deg above the horizon)")
     ax.set_ylabel("total gain (dBi)")
-    ax.set_title(f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz")
+    ax.set_title(
+        f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz"
+    )
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8, loc="lower right", ncols=2)
     if own:
@@ -163,7 +205,11 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
     el_edges = np.arange(0, 91, 1.5)
     maps = [(c.name, _sky_grid(c, az_edges, el_edges)) for c in diffuse]
     total = sum(m for _, m in maps) if maps else np.zeros((el_edges.size - 1, az_edges.size - 1))
-    panels = [("total of the diffuse components", total)] if total_only else [*maps, ("total of the diffuse components", total)]
+    panels = (
+        [("total of the diffuse components", total)]
+        if total_only
+        else [*maps, ("total of the diffuse components", total)]
+    )
     n = len(panels)
     fig, axes = _axes(ax, n=n, figsize=(9.0, 2.3 * n + 1.0), sharex=True)
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
@@ -174,8 +220,9 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
-            mesh = ax.pcolormesh(az_edges, el_edges, db, vmin=vmin, vmax=vmax, cmap="magma", shading="flat",
-                                 rasterized=True)
+            mesh = ax.pcolormesh(
+                az_edges, el_edges, db, vmin=vmin, vmax=vmax, cmap="magma", shading="flat", rasterized=True
+            )
         else:
             ax.set_facecolor("0.9")
             ax.text(180, 45, "none reaches the ground (screened by the ionosphere)", ha="center", va="center")
@@ -194,8 +241,10 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
     axes[-1].set_xticks(np.arange(0, 361, 45))
     month = results.months[month_index]
     hour = results.utc_hours[hour_index]
-    title = (f"Noise sky at {results.site['name']}, month {month}, {hour:g} UTC, {results.freq_hz / 1e6:g} MHz\n"
-             "(brightness temperature; crosses: local sources, cyan: targets)")
+    title = (
+        f"Noise sky at {results.site['name']}, month {month}, {hour:g} UTC, {results.freq_hz / 1e6:g} MHz\n"
+        "(brightness temperature; crosses: local sources, cyan: targets)"
+    )
     if own:
         fig.suptitle(title, fontsize=11)
         fig.tight_layout(rect=(0, 0, 0.9, 1))
@@ -249,8 +298,14 @@ def ranking_chart(results, *, ax=None):
     nt = len(targets)
     y = np.arange(len(cands))
     h = 0.8 / nt
-    fig, axes = _axes(ax, n=3, columns=True, figsize=(12, 0.6 * len(cands) * max(1, nt / 1.5) + 2.0), sharey=True,
-                      width_ratios=[2, 1.2, 1])
+    fig, axes = _axes(
+        ax,
+        n=3,
+        columns=True,
+        figsize=(12, 0.6 * len(cands) * max(1, nt / 1.5) + 2.0),
+        sharey=True,
+        width_ratios=[2, 1.2, 1],
+    )
     tcol = _colors(nt)
     for ti, t in enumerate(targets):
         off = (ti - (nt - 1) / 2) * h
@@ -323,9 +378,15 @@ def site_plan(results, *, ax=None):
     ax.grid(alpha=0.3)
     x_lo, x_hi = ax.get_xlim()
     y_lo, y_hi = ax.get_ylim()
-    ax.annotate("N", xy=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.04 * (y_hi - y_lo)),
-                xytext=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.16 * (y_hi - y_lo)),
-                ha="center", fontsize=12, fontweight="bold", arrowprops={"arrowstyle": "->", "lw": 2})
+    ax.annotate(
+        "N",
+        xy=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.04 * (y_hi - y_lo)),
+        xytext=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.16 * (y_hi - y_lo)),
+        ha="center",
+        fontsize=12,
+        fontweight="bold",
+        arrowprops={"arrowstyle": "->", "lw": 2},
+    )
     ax.set_title(f"Site plan, {results.site['name']} (squares: feed points)")
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.1), ncols=1, frameon=False)
     if own:
@@ -344,13 +405,22 @@ def located_sources(res, *, ax=None):
     for i, s in enumerate(res.sources):
         th = np.radians(s.bearing_deg)
         sig = np.radians(min(s.bearing_sigma_deg, 90))
-        ax.fill_between(np.linspace(th - sig, th + sig, 30), 0, 1, alpha=0.25, color=f"C{i}",
-                        label=f"source {i + 1}: {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg")
+        ax.fill_between(
+            np.linspace(th - sig, th + sig, 30),
+            0,
+            1,
+            alpha=0.25,
+            color=f"C{i}",
+            label=f"source {i + 1}: {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg",
+        )
         ax.plot([th, th], [0, 1], color=f"C{i}", lw=2.5)
         if s.ambiguous_180:
             ax.plot([th + np.pi, th + np.pi], [0, 1], color=f"C{i}", lw=1.5, ls="--", label="180 deg ambiguity")
-    ax.set_title(("Fitted noise direction" if res.ok else "Fit failed: direction not constrained")
-                 + f"\n(background Fa {res.background_fa_db:.0f} dB, residual {res.residual_rms_db:.1f} dB)", pad=18)
+    ax.set_title(
+        ("Fitted noise direction" if res.ok else "Fit failed: direction not constrained")
+        + f"\n(background Fa {res.background_fa_db:.0f} dB, residual {res.residual_rms_db:.1f} dB)",
+        pad=18,
+    )
     ax.legend(loc="lower left", bbox_to_anchor=(-0.1, -0.15), fontsize=9)
     if own:
         fig.tight_layout()

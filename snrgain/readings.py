@@ -1,9 +1,9 @@
 """Reading the builders' own files (analyser readings, noise readings): TOML, impedances.
 
-    >>> parse_impedance("95 - j210", "open")
-    (95-210j)
-    >>> parse_impedance([160.0, 240.0], "short")
-    (160+240j)
+>>> parse_impedance("95 - j210", "open")
+(95-210j)
+>>> parse_impedance([160.0, 240.0], "short")
+(160+240j)
 """
 
 from __future__ import annotations
@@ -32,8 +32,11 @@ def read_toml(path: str | Path, *, allowed: set[str]) -> dict:
 
 def parse_impedance(value, where: str) -> complex:
     """An impedance [ohm] as [R, X] or a string such as '95-210j', '95 - j210'."""
-    if isinstance(value, list) and len(value) == 2 and all(isinstance(v, (int, float)) and not isinstance(v, bool)
-                                                           for v in value):
+    if (
+        isinstance(value, list)
+        and len(value) == 2
+        and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value)
+    ):
         return complex(value[0], value[1])
     if isinstance(value, str):
         text = value.replace(" ", "")

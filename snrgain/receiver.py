@@ -16,7 +16,6 @@ import numpy as np
 
 from noisemodels.p372 import BOLTZMANN_J_PER_K, T0_K
 
-
 DEFAULT_NOISE_FIGURE_DB = 15.0
 """Receiver noise figure when none is given [dB]: typical of HF receivers on 160 m with the preamplifier off
 (common practice)."""

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import html
 import io
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 
 import numpy as np
 
@@ -30,26 +30,42 @@ SAFETY = [
 ]
 
 MODELS = [
-    ("Noise levels", "Recommendation ITU-R P.372: man-made noise (Table 1 categories and decile deviations), "
-     "galactic noise (Fa = 52 - 23 log f), atmospheric noise from the ITU-R Study Group 3 numerical maps "
-     "(Zacharisen and Jones 1970; Lucas and Harper 1965), combination by Section 8."),
-    ("Noise directions", "HEALPix sky (Gorski et al. 2005). Man-made: low angles (snrgain's assumption). "
-     "Atmospheric: snrgain's storm-to-site sky-wave model (absorption of the George and Bradley form) or uniform "
-     "or a sector. Galactic: passed above the ionosphere's penetration elevation (secant law). Every map is "
-     "normalised to P.372's reference monopole."),
-    ("Antennas", "Vertical: sinusoidal current with Fresnel ground reflection and a radial-loss resistance. "
-     "Long wires: transmission-line model with the Deri et al. (1981) ground-return impedance, checked against "
-     "NEC-2. Small loop: magnetic dipole over ground (Kraus). Tables: interpolated as given."),
-    ("Receiving chain", "Friis cascade (1944); ITU-R P.372 Section 2 system noise factor; cable losses typical of "
-     "the generic types (from memory)."),
-    ("Limits", "Far-field plane waves (local sources treated as distant); low wires only (up to 0.1 wavelength); "
-     "the storm-direction model is coarse; P.372's Section 8 variant for deviations above 12 dB is not implemented; "
-     "thermal noise of losses neglected."),
+    (
+        "Noise levels",
+        "Recommendation ITU-R P.372: man-made noise (Table 1 categories and decile deviations), "
+        "galactic noise (Fa = 52 - 23 log f), atmospheric noise from the ITU-R Study Group 3 numerical maps "
+        "(Zacharisen and Jones 1970; Lucas and Harper 1965), combination by Section 8.",
+    ),
+    (
+        "Noise directions",
+        "HEALPix sky (Gorski et al. 2005). Man-made: low angles (snrgain's assumption). "
+        "Atmospheric: snrgain's storm-to-site sky-wave model (absorption of the George and Bradley form) or uniform "
+        "or a sector. Galactic: passed above the ionosphere's penetration elevation (secant law). Every map is "
+        "normalised to P.372's reference monopole.",
+    ),
+    (
+        "Antennas",
+        "Vertical: sinusoidal current with Fresnel ground reflection and a radial-loss resistance. "
+        "Long wires: transmission-line model with the Deri et al. (1981) ground-return impedance, checked against "
+        "NEC-2. Small loop: magnetic dipole over ground (Kraus). Tables: interpolated as given.",
+    ),
+    (
+        "Receiving chain",
+        "Friis cascade (1944); ITU-R P.372 Section 2 system noise factor; cable losses typical of "
+        "the generic types (from memory).",
+    ),
+    (
+        "Limits",
+        "Far-field plane waves (local sources treated as distant); low wires only (up to 0.1 wavelength); "
+        "the storm-direction model is coarse; P.372's Section 8 variant for deviations above 12 dB is not implemented; "
+        "thermal noise of losses neglected.",
+    ),
 ]
 
 CSS = """
 body { font-family: system-ui, sans-serif; margin: 2em auto; max-width: 1100px; color: #1b1b1b; line-height: 1.4; }
-h1 { font-size: 1.6em; margin-bottom: 0.2em; } h2 { border-bottom: 2px solid #3a6; padding-bottom: 0.2em; margin-top: 1.6em; }
+h1 { font-size: 1.6em; margin-bottom: 0.2em; }
+h2 { border-bottom: 2px solid #3a6; padding-bottom: 0.2em; margin-top: 1.6em; }
 table { border-collapse: collapse; margin: 0.8em 0; font-size: 0.92em; }
 th, td { border: 1px solid #bbb; padding: 0.3em 0.6em; text-align: right; }
 th { background: #eef5ee; } td.name, th.name { text-align: left; }
@@ -65,7 +81,7 @@ def _svg(fig) -> str:
     buf = io.StringIO()
     fig.savefig(buf, format="svg", bbox_inches="tight")
     text = buf.getvalue()
-    return text[text.index("<svg"):]  # drop the XML prolog and doctype: the SVG sits inline in HTML
+    return text[text.index("<svg") :]  # drop the XML prolog and doctype: the SVG sits inline in HTML
 
 
 def _e(x) -> str:
@@ -80,33 +96,48 @@ def _f(x, fmt="{:+.1f}") -> str:
 
 
 def _summary(r) -> str:
-    rows = [("Site", f"{_e(r.site['name'])}, {r.site['latitude_deg']:.3f}&deg;, {r.site['longitude_deg']:.3f}&deg;"),
-            ("Ground", _e(r.site["ground"])),
-            ("Band", f"{r.freq_hz / 1e6:g} MHz, {r.bandwidth_hz:g} Hz bandwidth"),
-            ("Months", ", ".join(str(m) for m in r.months)),
-            ("UTC hours", ", ".join(f"{h:g}" for h in r.utc_hours)),
-            ("Receiver", f"noise figure {r.receiver['noise_figure_db']:.1f} dB; chain noise figure "
-                         f"{r.receiver.get('chain_noise_figure_db', r.receiver['noise_figure_db']):.1f} dB; "
-                         f"floor {r.receiver['noise_floor_dbm']:.1f} dBm"),
-            ("Reference antenna", _e(r.reference.name))]
+    rows = [
+        ("Site", f"{_e(r.site['name'])}, {r.site['latitude_deg']:.3f}&deg;, {r.site['longitude_deg']:.3f}&deg;"),
+        ("Ground", _e(r.site["ground"])),
+        ("Band", f"{r.freq_hz / 1e6:g} MHz, {r.bandwidth_hz:g} Hz bandwidth"),
+        ("Months", ", ".join(str(m) for m in r.months)),
+        ("UTC hours", ", ".join(f"{h:g}" for h in r.utc_hours)),
+        (
+            "Receiver",
+            f"noise figure {r.receiver['noise_figure_db']:.1f} dB; chain noise figure "
+            f"{r.receiver.get('chain_noise_figure_db', r.receiver['noise_figure_db']):.1f} dB; "
+            f"floor {r.receiver['noise_floor_dbm']:.1f} dBm",
+        ),
+        ("Reference antenna", _e(r.reference.name)),
+    ]
     out = ["<table>"] + [f"<tr><th class='name'>{k}</th><td class='name'>{v}</td></tr>" for k, v in rows] + ["</table>"]
-    out.append("<table><tr><th class='name'>Noise component (P.372 reference monopole)</th><th>Fa min (dB)</th>"
-               "<th>Fa max (dB)</th><th>upper decile (dB)</th><th>lower decile (dB)</th></tr>")
+    out.append(
+        "<table><tr><th class='name'>Noise component (P.372 reference monopole)</th><th>Fa min (dB)</th>"
+        "<th>Fa max (dB)</th><th>upper decile (dB)</th><th>lower decile (dB)</th></tr>"
+    )
     for name, c in r.noise.components.items():
         fa = c["fa_db"][np.isfinite(c["fa_db"])]
         lo, hi = (fa.min(), fa.max()) if fa.size else (np.nan, np.nan)
-        out.append(f"<tr><td class='name'>{_e(name)}</td><td>{_f(lo, '{:.1f}')}</td><td>{_f(hi, '{:.1f}')}</td>"
-                   f"<td>{_f(np.nanmean(c['du_db']), '{:.1f}')}</td><td>{_f(np.nanmean(c['dl_db']), '{:.1f}')}</td></tr>")
+        out.append(
+            f"<tr><td class='name'>{_e(name)}</td><td>{_f(lo, '{:.1f}')}</td><td>{_f(hi, '{:.1f}')}</td>"
+            f"<td>{_f(np.nanmean(c['du_db']), '{:.1f}')}</td><td>{_f(np.nanmean(c['dl_db']), '{:.1f}')}</td></tr>"
+        )
     tot = r.noise.total_fa_db
-    out.append(f"<tr><td class='name'><b>total (P.372 Section 8)</b></td><td>{_f(np.min(tot), '{:.1f}')}</td>"
-               f"<td>{_f(np.max(tot), '{:.1f}')}</td><td>{_f(np.mean(r.noise.total_du_db), '{:.1f}')}</td>"
-               f"<td>{_f(np.mean(r.noise.total_dl_db), '{:.1f}')}</td></tr></table>")
-    tg = ["<table><tr><th class='name'>Target</th><th>weight</th><th>bearing (deg)</th><th>elevations (deg)</th>"
-          "<th>distance (km)</th></tr>"]
+    out.append(
+        f"<tr><td class='name'><b>total (P.372 Section 8)</b></td><td>{_f(np.min(tot), '{:.1f}')}</td>"
+        f"<td>{_f(np.max(tot), '{:.1f}')}</td><td>{_f(np.mean(r.noise.total_du_db), '{:.1f}')}</td>"
+        f"<td>{_f(np.mean(r.noise.total_dl_db), '{:.1f}')}</td></tr></table>"
+    )
+    tg = [
+        "<table><tr><th class='name'>Target</th><th>weight</th><th>bearing (deg)</th><th>elevations (deg)</th>"
+        "<th>distance (km)</th></tr>"
+    ]
     for t in r.targets:
         dist = "&ndash;" if t["distance_km"] is None else f"{t['distance_km']:.0f} ({t['hops'][0]}-{t['hops'][1]} hops)"
-        tg.append(f"<tr><td class='name'>{_e(t['name'])}</td><td>{t['weight']:.2f}</td><td>{t['bearing_deg']:.0f}</td>"
-                  f"<td>{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}</td><td>{dist}</td></tr>")
+        tg.append(
+            f"<tr><td class='name'>{_e(t['name'])}</td><td>{t['weight']:.2f}</td><td>{t['bearing_deg']:.0f}</td>"
+            f"<td>{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}</td><td>{dist}</td></tr>"
+        )
     tg.append("</table>")
     return "\n".join(out + tg)
 
@@ -116,26 +147,38 @@ def _ranking(r) -> str:
     head = ["#", "antenna", "SNR gain mean (dB)", "SNR gain worst (dB)"]
     head += [f"SNR gain: {_e(t['name'])} (dB)" for t in r.targets]
     head += ["RDF (dB)", "F/B (dB)", "noise at receiver (dBm)", "S", "margin (dB)", "preamp (dB)"]
-    out = ["<table id='ranking'><tr>" + "".join(f"<th{' class=name' if h == 'antenna' else ''}>{h}</th>" for h in head)
-           + "</tr>"]
+    out = [
+        "<table id='ranking'><tr>"
+        + "".join(f"<th{' class=name' if h == 'antenna' else ''}>{h}</th>" for h in head)
+        + "</tr>"
+    ]
     for rank, a in [("ref", r.reference)] + [(str(i + 1), c) for i, c in enumerate(r.candidates)]:
         noise = float(np.median(a.noise_dbm))
         margin = float(np.min(a.margin_db))
-        pre = "&ndash;" if not a.receiver_limited else (
-            "none" if np.any(np.isnan(a.preamp_gain_needed_db)) else f"{np.max(a.preamp_gain_needed_db):.0f}")
+        pre = (
+            "&ndash;"
+            if not a.receiver_limited
+            else ("none" if np.any(np.isnan(a.preamp_gain_needed_db)) else f"{np.max(a.preamp_gain_needed_db):.0f}")
+        )
         cells = [rank, f"<td class='name'>{_e(a.name)}</td>", _f(a.summary_snr_gain_db), _f(a.worst_snr_gain_db)]
         cells += [_f(a.snr_gain_db[i].mean()) for i in range(len(r.targets))]
-        cells += [_f(np.dot(w, a.rdf_db)), _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))),
-                  _f(noise, "{:.1f}"), s_units(noise)]
+        cells += [
+            _f(np.dot(w, a.rdf_db)),
+            _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))),
+            _f(noise, "{:.1f}"),
+            s_units(noise),
+        ]
         row = [f"<td>{c}</td>" if not str(c).startswith("<td") else c for c in cells]
         row.append(f"<td class='warn'>{margin:.1f} !</td>" if a.receiver_limited else f"<td>{margin:.1f}</td>")
         row.append(f"<td>{pre}</td>")
         out.append(f"<tr{' class=ref' if rank == 'ref' else ''}>" + "".join(row) + "</tr>")
     out.append("</table>")
-    out.append("<p class='note'>SNR gain over the reference antenna toward the targets with this site's noise sky and "
-               "the receiving chain; 'mean' averages in dB over the targets (weighted) and the hours, which ranks the "
-               "candidates. Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the "
-               "worst hour; '!' marks an antenna limited by receiver noise; preamp: gain that would reach the target.</p>")
+    out.append(
+        "<p class='note'>SNR gain over the reference antenna toward the targets with this site's noise sky and "
+        "the receiving chain; 'mean' averages in dB over the targets (weighted) and the hours, which ranks the "
+        "candidates. Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the "
+        "worst hour; '!' marks an antenna limited by receiver noise; preamp: gain that would reach the target.</p>"
+    )
     if r.warnings:
         out.append("<ul>" + "".join(f"<li>{_e(wn)}</li>" for wn in r.warnings) + "</ul>")
     return "\n".join(out)
@@ -145,15 +188,35 @@ def figure_list(r) -> list[tuple[str, object, str]]:
     """(title, figure, caption) for every figure of the report."""
     figs = []
     for i, t in enumerate(r.targets):
-        figs.append((f"Azimuth pattern toward {t['name']}", plots.azimuth_pattern(r, target_index=i),
-                     "Gain of each antenna at the target's elevation; arrows mark targets, crosses local noise sources."))
-        figs.append((f"Elevation pattern toward {t['name']}", plots.elevation_pattern(r, target_index=i),
-                     "Gain against elevation toward the target's bearing; the shaded band is where its signals arrive."))
+        figs.append(
+            (
+                f"Azimuth pattern toward {t['name']}",
+                plots.azimuth_pattern(r, target_index=i),
+                "Gain of each antenna at the target's elevation; arrows mark targets, crosses local noise sources.",
+            )
+        )
+        figs.append(
+            (
+                f"Elevation pattern toward {t['name']}",
+                plots.elevation_pattern(r, target_index=i),
+                "Gain against elevation toward the target's bearing; the shaded band is where its signals arrive.",
+            )
+        )
     hour_index = len(r.utc_hours) // 2
-    figs.append(("Noise sky", plots.noise_sky(r, hour_index=hour_index),
-                 f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC, month {r.months[0]}."))
-    figs.append(("SNR gain over the hours", plots.snr_over_hours(r),
-                 "Mean over targets and months; bands show atmospheric noise at its P.372 deciles where included."))
+    figs.append(
+        (
+            "Noise sky",
+            plots.noise_sky(r, hour_index=hour_index),
+            f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC, month {r.months[0]}.",
+        )
+    )
+    figs.append(
+        (
+            "SNR gain over the hours",
+            plots.snr_over_hours(r),
+            "Mean over targets and months; bands show atmospheric noise at its P.372 deciles where included.",
+        )
+    )
     figs.append(("Ranking", plots.ranking_chart(r), "SNR gain and RDF per target; margin of external noise."))
     if plots.has_site_plan(r):
         figs.append(("Site plan", plots.site_plan(r), "The lot and the antennas to scale."))
@@ -164,17 +227,23 @@ def render(results, *, title: str | None = None) -> str:
     """The report as one HTML document (a string)."""
     r = results
     title = title or f"snrgain report: {r.site['name']}"
-    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{_e(title)}</title>",
-             f"<style>{CSS}</style></head><body>",
-             f"<h1>{_e(title)}</h1>",
-             f"<p class='note'>Scenario {_e(r.source)}; made {datetime.now(timezone.utc):%Y-%m-%d %H:%M} UTC; "
-             f"sky resolution HEALPix nside {r.nside}.</p>",
-             "<h2 id='summary'>Scenario</h2>", _summary(r),
-             "<h2 id='ranked'>Ranked candidates</h2>", _ranking(r),
-             "<h2 id='figures'>Figures</h2>"]
+    parts = [
+        f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{_e(title)}</title>",
+        f"<style>{CSS}</style></head><body>",
+        f"<h1>{_e(title)}</h1>",
+        f"<p class='note'>Scenario {_e(r.source)}; made {datetime.now(UTC):%Y-%m-%d %H:%M} UTC; "
+        f"sky resolution HEALPix nside {r.nside}.</p>",
+        "<h2 id='summary'>Scenario</h2>",
+        _summary(r),
+        "<h2 id='ranked'>Ranked candidates</h2>",
+        _ranking(r),
+        "<h2 id='figures'>Figures</h2>",
+    ]
     for i, (name, fig, caption) in enumerate(figure_list(r)):
-        parts.append(f"<figure id='figure-{i + 1}'>{_svg(fig)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
-                     "</figcaption></figure>")
+        parts.append(
+            f"<figure id='figure-{i + 1}'>{_svg(fig)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
+            "</figcaption></figure>"
+        )
     parts.append("<h2 id='models'>Models, sources and limits</h2><table>")
     parts += [f"<tr><th class='name'>{_e(k)}</th><td class='name'>{_e(v)}</td></tr>" for k, v in MODELS]
     parts.append("</table>")

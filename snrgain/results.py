@@ -71,8 +71,10 @@ class AntennaResult:
     snr_gain_atmospheric_deciles_db: np.ndarray | None = field(default=None, repr=False)
 
     def __repr__(self) -> str:
-        return (f"AntennaResult({self.name!r}, {self.family}, SNR gain mean {self.summary_snr_gain_db:+.1f} dB, "
-                f"worst {self.worst_snr_gain_db:+.1f} dB)")
+        return (
+            f"AntennaResult({self.name!r}, {self.family}, SNR gain mean {self.summary_snr_gain_db:+.1f} dB, "
+            f"worst {self.worst_snr_gain_db:+.1f} dB)"
+        )
 
 
 @dataclass(frozen=True)
@@ -134,9 +136,11 @@ class Results:
 
     def __repr__(self) -> str:
         best = self.candidates[0] if self.candidates else None
-        head = (f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.targets)} target(s), "
-                f"{len(self.months)} month(s) x {len(self.utc_hours)} hour(s), reference {self.reference.name!r}, "
-                f"{len(self.candidates)} candidate(s)")
+        head = (
+            f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.targets)} target(s), "
+            f"{len(self.months)} month(s) x {len(self.utc_hours)} hour(s), reference {self.reference.name!r}, "
+            f"{len(self.candidates)} candidate(s)"
+        )
         if best is not None:
             head += f"; first: {best.name!r} {best.summary_snr_gain_db:+.1f} dB"
         return head + (f"; {len(self.notices)} notice(s))" if self.notices else ")")
@@ -144,31 +148,33 @@ class Results:
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict (numbers as floats and lists; units in the keys)."""
         noise = self.noise
-        return jsonable({
-            "schema_version": SCHEMA_VERSION,
-            "scenario": self.source,
-            "site": self.site,
-            "frequency_hz": self.freq_hz,
-            "bandwidth_hz": self.bandwidth_hz,
-            "months": self.months,
-            "utc_hours": self.utc_hours,
-            "targets": self.targets,
-            "noise": {
-                "axes": ["month", "utc_hour"],
-                "components": noise.components,
-                "total_fa_db": noise.total_fa_db,
-                "total_upper_decile_db": noise.total_du_db,
-                "total_lower_decile_db": noise.total_dl_db,
-                "median_power_sum_fa_db": noise.median_power_sum_fa_db,
-                "daytime": noise.daytime,
-            },
-            "receiver": self.receiver,
-            "nside": self.nside,
-            "reference": _antenna_dict(self.reference),
-            "ranking": [_antenna_dict(c) | {"rank": i + 1} for i, c in enumerate(self.candidates)],
-            "local_sources": self.local_sources,
-            "warnings": self.warnings,
-        })
+        return jsonable(
+            {
+                "schema_version": SCHEMA_VERSION,
+                "scenario": self.source,
+                "site": self.site,
+                "frequency_hz": self.freq_hz,
+                "bandwidth_hz": self.bandwidth_hz,
+                "months": self.months,
+                "utc_hours": self.utc_hours,
+                "targets": self.targets,
+                "noise": {
+                    "axes": ["month", "utc_hour"],
+                    "components": noise.components,
+                    "total_fa_db": noise.total_fa_db,
+                    "total_upper_decile_db": noise.total_du_db,
+                    "total_lower_decile_db": noise.total_dl_db,
+                    "median_power_sum_fa_db": noise.median_power_sum_fa_db,
+                    "daytime": noise.daytime,
+                },
+                "receiver": self.receiver,
+                "nside": self.nside,
+                "reference": _antenna_dict(self.reference),
+                "ranking": [_antenna_dict(c) | {"rank": i + 1} for i, c in enumerate(self.candidates)],
+                "local_sources": self.local_sources,
+                "warnings": self.warnings,
+            }
+        )
 
 
 def _antenna_dict(a: AntennaResult) -> dict[str, Any]:

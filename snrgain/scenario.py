@@ -58,7 +58,8 @@ class ScenarioError(ValueError):
 
 # -- the sections ------------------------------------------------------------
 
-class Site(StrictModel):
+
+class SiteSection(StrictModel):
     name: str = "unnamed site"
     latitude: Latitude
     longitude: Longitude
@@ -67,7 +68,7 @@ class Site(StrictModel):
     """The lot's outline on the site plan, [east, north] corners (for the plan view)."""
 
 
-class Band(StrictModel):
+class BandSection(StrictModel):
     frequency: quantity("frequency", ge=FREQ_RANGE_HZ[0], le=FREQ_RANGE_HZ[1])
     bandwidth: quantity("frequency", ge=10.0, le=100e3) = 500.0
 
@@ -279,8 +280,8 @@ class Compute(StrictModel):
 
 
 class ScenarioModel(StrictModel):
-    site: Site
-    band: Band
+    site: SiteSection
+    band: BandSection
     time: Time = Time()
     noise: Noise = Noise()
     target: list[Target] = Field(min_length=1)
@@ -292,6 +293,7 @@ class ScenarioModel(StrictModel):
 
 
 # -- the resolved scenario --------------------------------------------------------
+
 
 @dataclass(frozen=True)
 class Site:
@@ -328,8 +330,8 @@ class Scenario:
     """
 
     source: str
-    site: Site
-    band: Band
+    site: SiteSection
+    band: BandSection
     times: Times
     noise: noisemod.NoiseSettings
     targets: tuple[targetmod.TargetDirections, ...]
@@ -358,8 +360,9 @@ class Scenario:
     @property
     def place(self) -> noisemod.Place:
         """The site and band as the sky builder wants them."""
-        return noisemod.Place(self.site.latitude_deg, self.site.longitude_deg, self.band.freq_hz,
-                              self.band.bandwidth_hz)
+        return noisemod.Place(
+            self.site.latitude_deg, self.site.longitude_deg, self.band.freq_hz, self.band.bandwidth_hz
+        )
 
 
 def _inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
@@ -416,7 +419,9 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
     elif isinstance(ref_spec, dict) and "family" not in ref_spec:
         ref_spec = {**ref_spec, "family": "vertical"}
     cand_specs = data.get("candidate", []) if isinstance(data, dict) else []
-    specs = [("reference", ref_spec)] + [(f"candidate[{i}]", s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])]
+    specs = [("reference", ref_spec)] + [
+        (f"candidate[{i}]", s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])
+    ]
     antennas: list[Antenna] = []
     chains: list[ChainSection | None] = []
     names = set()
@@ -431,7 +436,9 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
                 problems.extend(pydantic_problems(exc, f"{where}.chain"))
                 continue
         try:
-            spec2 = _inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
+            spec2 = (
+                _inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
+            )
             ant = build_antenna(spec2, where, freq_hz=freq)
         except SpecError as exc:
             problems.extend(exc.problems)
@@ -469,13 +476,22 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
     if problems:
         raise ScenarioError(label, problems)
     weights = np.array([t.weight for t in model.target])
-    own = [chainmod.from_section(c, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
-           if c is not None else chain for c in chains]
+    own = [
+        chainmod.from_section(c, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
+        if c is not None
+        else chain
+        for c in chains
+    ]
     site = model.site
     return Scenario(
         source=label,
-        site=Site(site.name, site.latitude, site.longitude, make_ground(site.ground),
-                  None if site.lot is None else tuple(site.lot)),
+        site=Site(
+            site.name,
+            site.latitude,
+            site.longitude,
+            make_ground(site.ground),
+            None if site.lot is None else tuple(site.lot),
+        ),
         band=Band(model.band.frequency, model.band.bandwidth),
         times=Times(tuple(model.time.months), tuple(model.time.utc_hours)),
         noise=_noise_settings(model.noise, data_dir),
@@ -505,16 +521,28 @@ def _sector(sec: Sector | None) -> noisemod.Sector | None:
 def _noise_settings(n: Noise, data_dir: Path | None) -> noisemod.NoiseSettings:
     mm, at, gal = n.man_made, n.atmospheric, n.galactic
     return noisemod.NoiseSettings(
-        man_made=None if mm.environment == "none" else noisemod.ManMadeNoise(mm.environment, mm.elevation_scale,
-                                                                             _sector(mm.sector)),
-        atmospheric=None if at.model == "none" else noisemod.AtmosphericNoise(
-            model=at.model, fa_db=at.fa, upper_decile_db=at.upper_decile, lower_decile_db=at.lower_decile,
-            arrival=at.arrival_model, elevation_center_rad=at.elevation_center, elevation_width_rad=at.elevation_width,
-            sector=_sector(at.sector), layer_height_m=at.layer_height),
-        galactic=None if not gal.enabled else noisemod.GalacticNoise(
-            gal.critical_frequency_day, gal.critical_frequency_night, gal.layer_height),
-        local=tuple(noisemod.LocalSource(src.name, src.bearing, src.elevation, src.spread, src.fa, src.level)
-                    for src in n.local),
+        man_made=None
+        if mm.environment == "none"
+        else noisemod.ManMadeNoise(mm.environment, mm.elevation_scale, _sector(mm.sector)),
+        atmospheric=None
+        if at.model == "none"
+        else noisemod.AtmosphericNoise(
+            model=at.model,
+            fa_db=at.fa,
+            upper_decile_db=at.upper_decile,
+            lower_decile_db=at.lower_decile,
+            arrival=at.arrival_model,
+            elevation_center_rad=at.elevation_center,
+            elevation_width_rad=at.elevation_width,
+            sector=_sector(at.sector),
+            layer_height_m=at.layer_height,
+        ),
+        galactic=None
+        if not gal.enabled
+        else noisemod.GalacticNoise(gal.critical_frequency_day, gal.critical_frequency_night, gal.layer_height),
+        local=tuple(
+            noisemod.LocalSource(src.name, src.bearing, src.elevation, src.spread, src.fa, src.level) for src in n.local
+        ),
         p372_dir=data_dir,
     )
 
@@ -535,15 +563,20 @@ def _p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
         chosen = Path(option)
     else:
         raise p372_maps.P372DataError(
-            "P.372 atmospheric noise is asked for, but no data folder is set. " + p372_maps.HOW_TO_GET)
+            "P.372 atmospheric noise is asked for, but no data folder is set. " + p372_maps.HOW_TO_GET
+        )
     for month in model.time.months:
         p372_maps.load_month(month, chosen)  # raises naming the file and section at fault
     return chosen
 
 
 def _read(source) -> tuple[str, str, Path | None]:
-    looks_like_path = isinstance(source, str) and "\n" not in source and "=" not in source and (
-        source.endswith(".toml") or Path(source).exists())
+    looks_like_path = (
+        isinstance(source, str)
+        and "\n" not in source
+        and "=" not in source
+        and (source.endswith(".toml") or Path(source).exists())
+    )
     if isinstance(source, Path) or looks_like_path:
         path = Path(source)
         try:
@@ -555,7 +588,7 @@ def _read(source) -> tuple[str, str, Path | None]:
     raise ScenarioError("<input>", [("", f"a scenario is a path, TOML text or a dict; got {type(source).__name__}")])
 
 
-def _target(t: Target, site: Site) -> targetmod.TargetDirections:
+def _target(t: Target, site: SiteSection) -> targetmod.TargetDirections:
     if t.bearing is not None:
         return targetmod.from_bearing(
             t.name, bearing_rad=t.bearing, elevation_lo_rad=t.elevation[0], elevation_hi_rad=t.elevation[1]

@@ -79,6 +79,7 @@ def snr_gain_db(signal_a, noise_a, signal_r, noise_r):
 
 # -- the integrator's steps over a whole scenario --------------------------------------------------------------
 
+
 @dataclass
 class Gains:
     """Every antenna's gains: a cache per antenna for any sky sample set, toward each target, and averaged.
@@ -126,8 +127,15 @@ def sky_temperatures(gains: Gains, skies) -> Temperatures:
 
 def front_to_back_toward(gains: Gains, targets) -> np.ndarray:
     """Front-to-back [dB] of each antenna toward each target at its mean elevation, shape (antennas, targets)."""
-    return np.array([[front_to_back_db(c.gain_fn, bearing_rad=t.bearing_rad, elevation_rad=t.mean_elevation_rad)
-                      for t in targets] for c in gains.caches]).reshape(len(gains.caches), len(targets))
+    return np.array(
+        [
+            [
+                front_to_back_db(c.gain_fn, bearing_rad=t.bearing_rad, elevation_rad=t.mean_elevation_rad)
+                for t in targets
+            ]
+            for c in gains.caches
+        ]
+    ).reshape(len(gains.caches), len(targets))
 
 
 AZIMUTH_CUT_DEG = np.arange(0.0, 360.5, 1.0)
@@ -139,10 +147,15 @@ def pattern_cuts(antennas, freq_hz: float, targets) -> tuple[np.ndarray, np.ndar
     toward each target's bearing: arrays (antennas, targets, AZIMUTH_CUT_DEG) and (antennas, targets,
     ELEVATION_CUT_DEG)."""
     with np.errstate(divide="ignore"):
-        az = np.array([[a.gain_dbi(freq_hz, AZIMUTH_CUT_DEG, np.degrees(t.mean_elevation_rad)) for t in targets]
-                       for a in antennas])
-        el = np.array([[a.gain_dbi(freq_hz, np.degrees(t.bearing_rad), ELEVATION_CUT_DEG) for t in targets]
-                       for a in antennas])
+        az = np.array(
+            [
+                [a.gain_dbi(freq_hz, AZIMUTH_CUT_DEG, np.degrees(t.mean_elevation_rad)) for t in targets]
+                for a in antennas
+            ]
+        )
+        el = np.array(
+            [[a.gain_dbi(freq_hz, np.degrees(t.bearing_rad), ELEVATION_CUT_DEG) for t in targets] for a in antennas]
+        )
     return az, el
 
 

@@ -57,14 +57,20 @@ class TargetDirections:
         return float(np.sum(self.weight * self.elevation_rad))
 
 
-def _samples(lo_rad, hi_rad, step_rad=np.radians(1.0)):
+SAMPLE_STEP_RAD = float(np.radians(1.0))
+"""Spacing of a target's elevation samples [rad]."""
+
+
+def _samples(lo_rad, hi_rad, step_rad=SAMPLE_STEP_RAD):
     if hi_rad - lo_rad < 1e-9:
         return np.array([lo_rad])
     n = int(np.ceil((hi_rad - lo_rad) / step_rad)) + 1
     return np.linspace(lo_rad, hi_rad, n)
 
 
-def from_bearing(name: str, *, bearing_rad: float, elevation_lo_rad: float, elevation_hi_rad: float) -> TargetDirections:
+def from_bearing(
+    name: str, *, bearing_rad: float, elevation_lo_rad: float, elevation_hi_rad: float
+) -> TargetDirections:
     """A target at one bearing, uniform over an elevation range [rad]."""
     if elevation_hi_rad < elevation_lo_rad:
         raise ValueError(f"target {name!r}: elevation range is reversed")

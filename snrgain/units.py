@@ -100,7 +100,9 @@ def parse_quantity(value, dimension: str) -> float:
         x = number * (_unit_scale(unit, dimension) if unit is not None else _bare_scale(dimension))
     else:
         if not bare_ok:
-            raise QuantityError(f"a bare number is ambiguous here; give the {dimension} with its unit, such as {example}")
+            raise QuantityError(
+                f"a bare number is ambiguous here; give the {dimension} with its unit, such as {example}"
+            )
         x = float(value) * _bare_scale(dimension)
     if not np.isfinite(x):
         raise QuantityError(f"expected a finite {dimension}, got {value!r}")

@@ -39,8 +39,9 @@ DEFAULT_ELEVATION_RAD = np.radians(20.0)
 
 def along_wire_target(bearing_rad: float, elevation_rad: float = DEFAULT_ELEVATION_RAD) -> TargetDirections:
     """A target straight along a wire's bearing at one elevation."""
-    return from_bearing("along the wire", bearing_rad=bearing_rad, elevation_lo_rad=elevation_rad,
-                        elevation_hi_rad=elevation_rad)
+    return from_bearing(
+        "along the wire", bearing_rad=bearing_rad, elevation_lo_rad=elevation_rad, elevation_hi_rad=elevation_rad
+    )
 
 
 def _target(target, bearing_rad) -> TargetDirections:
@@ -54,12 +55,16 @@ def rdf_db(antenna, freq_hz: float, target: TargetDirections, grid: Directions) 
 
 
 def front_to_back_db(antenna, freq_hz: float, target: TargetDirections) -> float:
-    return snr.front_to_back_db(lambda az, el: antenna.gain_linear(freq_hz, az, el),
-                                bearing_rad=target.bearing_rad, elevation_rad=target.mean_elevation_rad)
+    return snr.front_to_back_db(
+        lambda az, el: antenna.gain_linear(freq_hz, az, el),
+        bearing_rad=target.bearing_rad,
+        elevation_rad=target.mean_elevation_rad,
+    )
 
 
-def sweep_rdf(spec: dict, freq_hz: float, *, lengths_m, terminations_ohm, bearings_deg, target=None,
-              nside: int = 32) -> np.ndarray:
+def sweep_rdf(
+    spec: dict, freq_hz: float, *, lengths_m, terminations_ohm, bearings_deg, target=None, nside: int = 32
+) -> np.ndarray:
     """RDF [dB] for every (length, termination, bearing) design; shape (lengths, terminations, bearings)."""
     grid = upper_hemisphere(nside)
     base = from_spec(spec)
@@ -86,8 +91,9 @@ class LengthAdvice:
     rdf_db: np.ndarray
 
 
-def best_length(spec: dict, freq_hz: float, *, target=None, max_length_m: float | None = None,
-                steps: int = 40, nside: int = 16) -> LengthAdvice:
+def best_length(
+    spec: dict, freq_hz: float, *, target=None, max_length_m: float | None = None, steps: int = 40, nside: int = 16
+) -> LengthAdvice:
     """The model's best length for RDF toward the target, beside the traditional rule."""
     ant = from_spec(spec)
     tgt = _target(target, ant.bearing_rad)
@@ -116,8 +122,9 @@ class TerminationAdvice:
     figure_db: np.ndarray
 
 
-def best_termination(spec: dict, freq_hz: float, *, target=None, metric: str = "rdf", nside: int = 16,
-                     values_ohm=None) -> TerminationAdvice:
+def best_termination(
+    spec: dict, freq_hz: float, *, target=None, metric: str = "rdf", nside: int = 16, values_ohm=None
+) -> TerminationAdvice:
     """The termination of highest RDF or front-to-back for the target, beside |Z0|."""
     if metric not in ("rdf", "front_to_back"):
         raise ValueError(f"metric must be 'rdf' or 'front_to_back', got {metric!r}")
@@ -160,14 +167,28 @@ def transformer(antenna, freq_hz: float) -> TransformerAdvice:
     return TransformerAdvice(z, zc, exact, practical, loss(practical), chosen, loss(chosen))
 
 
-SAFETY = ("Safety: keep the wire and its supports well clear of power lines; ground and disconnect the feed line "
-          "when storms are near; have buried utilities located before driving ground rods; mark or bury wires "
-          "on the ground where people walk. Follow local codes.")
+SAFETY = (
+    "Safety: keep the wire and its supports well clear of power lines; ground and disconnect the feed line "
+    "when storms are near; have buried utilities located before driving ground rods; mark or bury wires "
+    "on the ground where people walk. Follow local codes."
+)
 
 
-def wire_spec(family: str, *, length, height=None, termination="auto", feed_ground="20 ohm", far_ground="20 ohm",
-              gauge: int | None = None, diameter=None, ground="average", conductivity=None, permittivity=None,
-              coax: int = 75) -> dict:
+def wire_spec(
+    family: str,
+    *,
+    length,
+    height=None,
+    termination="auto",
+    feed_ground="20 ohm",
+    far_ground="20 ohm",
+    gauge: int | None = None,
+    diameter=None,
+    ground="average",
+    conductivity=None,
+    permittivity=None,
+    coax: int = 75,
+) -> dict:
     """An antenna spec for a long wire from design options (units as in scenario files).
 
     The far-end keys go only to the families that have them; ``height`` defaults to 2.5 m (2 cm, the axis
@@ -175,8 +196,13 @@ def wire_spec(family: str, *, length, height=None, termination="auto", feed_grou
     """
     if family not in WIRE_FAMILIES:
         raise ValueError(f"family must be one of {', '.join(WIRE_FAMILIES)}; got {family!r}")
-    spec = {"family": family, "length": length, "coax": int(coax), "feed_ground": feed_ground,
-            "height": height or ("2 cm" if family == "bog" else "2.5 m")}
+    spec = {
+        "family": family,
+        "length": length,
+        "coax": int(coax),
+        "feed_ground": feed_ground,
+        "height": height or ("2 cm" if family == "bog" else "2.5 m"),
+    }
     if family != "unterminated":
         spec["far_ground"] = far_ground
     if family in ("beverage", "bog"):
@@ -207,19 +233,30 @@ def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_EL
     ant.check_frequency(freq_hz)
     target = along_wire_target(0.0, elevation_rad)
     length_adv = best_length(spec, freq_hz, target=target)
-    out = {"antenna": ant.describe(), **ant.design(freq_hz), "target_elevation_deg": float(np.degrees(elevation_rad)),
-           "length_rule_m": length_adv.rule_m, "best_length_m": length_adv.best_m,
-           "best_length_rdf_db": length_adv.best_rdf_db,
-           "rdf_db": rdf_db(ant, freq_hz, target, upper_hemisphere(32)),
-           "front_to_back_db": front_to_back_db(ant, freq_hz, target),
-           "forward_gain_dbi": float(ant.gain_dbi(freq_hz, 0.0, np.degrees(elevation_rad))),
-           "safety": SAFETY}
+    out = {
+        "antenna": ant.describe(),
+        **ant.design(freq_hz),
+        "target_elevation_deg": float(np.degrees(elevation_rad)),
+        "length_rule_m": length_adv.rule_m,
+        "best_length_m": length_adv.best_m,
+        "best_length_rdf_db": length_adv.best_rdf_db,
+        "rdf_db": rdf_db(ant, freq_hz, target, upper_hemisphere(32)),
+        "front_to_back_db": front_to_back_db(ant, freq_hz, target),
+        "forward_gain_dbi": float(ant.gain_dbi(freq_hz, 0.0, np.degrees(elevation_rad))),
+        "safety": SAFETY,
+    }
     if spec["family"] in ("beverage", "bog"):
         t_rdf = best_termination(spec, freq_hz, target=target, metric="rdf")
         t_fb = best_termination(spec, freq_hz, target=target, metric="front_to_back")
-        out.update(textbook_termination_ohm=t_rdf.textbook_ohm, best_rdf_termination_ohm=t_rdf.best_ohm,
-                   best_front_to_back_termination_ohm=t_fb.best_ohm)
+        out.update(
+            textbook_termination_ohm=t_rdf.textbook_ohm,
+            best_rdf_termination_ohm=t_rdf.best_ohm,
+            best_front_to_back_termination_ohm=t_fb.best_ohm,
+        )
     tr = transformer(ant, freq_hz)
-    out.update(exact_turns_ratio=tr.exact_turns_ratio, practical_turns_ratio=tr.practical_turns_ratio,
-               practical_mismatch_loss_db=tr.practical_mismatch_loss_db)
+    out.update(
+        exact_turns_ratio=tr.exact_turns_ratio,
+        practical_turns_ratio=tr.practical_turns_ratio,
+        practical_mismatch_loss_db=tr.practical_mismatch_loss_db,
+    )
     return out

@@ -49,8 +49,11 @@ def test_ground_loss_lowers_gain_by_efficiency():
 def test_gain_zero_below_horizon_every_family(tmp_path):
     csv = tmp_path / "p.csv"
     _write_table(csv, lambda az, el: np.zeros_like(az))
-    for spec in ({"family": "isotropic"}, {"family": "vertical", "height": "10 m"},
-                 {"family": "tabulated", "file": str(csv)}):
+    for spec in (
+        {"family": "isotropic"},
+        {"family": "vertical", "height": "10 m"},
+        {"family": "tabulated", "file": str(csv)},
+    ):
         a = from_spec(spec)
         assert np.all(np.isneginf(a.gain_dbi(F, [0, 90], [-1, -30])))
 
@@ -95,18 +98,21 @@ def test_tabulated_polarizations_sum(tmp_path):
     csv = tmp_path / "t.csv"
     _write_table(csv, lambda az, el: np.full_like(az, -6.0), polar=True)
     a = from_spec({"family": "tabulated", "file": str(csv)})
-    expect = 10 * np.log10(10 ** -0.6 + 10 ** -0.9)
+    expect = 10 * np.log10(10**-0.6 + 10**-0.9)
     assert a.gain_dbi(F, 10, 10) == pytest.approx(expect, abs=1e-9)
 
 
-@pytest.mark.parametrize("content, match", [
-    ("azimuth_deg,elevation_deg,gain\n0,0,1\n", "unknown column"),
-    ("azimuth_deg,gain_dbi\n0,1\n", "elevation_deg"),
-    ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,x\n90,90,1\n", "line 4: not a number"),
-    ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,1\n", "complete grid"),
-    ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,45,1\n90,0,1\n90,45,1\n", "cover 0 to 90"),
-    ("# only a comment\n", "no header"),
-])
+@pytest.mark.parametrize(
+    "content, match",
+    [
+        ("azimuth_deg,elevation_deg,gain\n0,0,1\n", "unknown column"),
+        ("azimuth_deg,gain_dbi\n0,1\n", "elevation_deg"),
+        ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,x\n90,90,1\n", "line 4: not a number"),
+        ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,1\n", "complete grid"),
+        ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,45,1\n90,0,1\n90,45,1\n", "cover 0 to 90"),
+        ("# only a comment\n", "no header"),
+    ],
+)
 def test_tabulated_bad_files_name_the_problem(tmp_path, content, match):
     csv = tmp_path / "bad.csv"
     csv.write_text(content)

@@ -65,7 +65,9 @@ def test_fitted_ground_reproduces_the_velocity_factor():
     meas = []
     for f in (1.83e6, 3.6e6):
         ln = ant.line(f)
-        meas.append({"freq_hz": f, "velocity_factor": ln.velocity_factor, "attenuation_db_per_100m": ln.attenuation_db_per_100m})
+        meas.append(
+            {"freq_hz": f, "velocity_factor": ln.velocity_factor, "attenuation_db_per_100m": ln.attenuation_db_per_100m}
+        )
 
     fit = cal.fit_ground(ant.computed_line, meas)
     assert fit.conductivity_s_per_m == pytest.approx(0.012, rel=0.05)
@@ -73,11 +75,14 @@ def test_fitted_ground_reproduces_the_velocity_factor():
     assert fit.conductivity_factor > 1.0
 
 
-@pytest.mark.parametrize("zoc, zsc, length, match", [
-    (complex(-50, 10), complex(100, 50), 76.0, "negative"),
-    (complex(100, -200), complex(150, 200), -5.0, "length"),
-    (complex(100, -200), 0j, 76.0, "zero"),
-])
+@pytest.mark.parametrize(
+    "zoc, zsc, length, match",
+    [
+        (complex(-50, 10), complex(100, 50), 76.0, "negative"),
+        (complex(100, -200), complex(150, 200), -5.0, "length"),
+        (complex(100, -200), 0j, 76.0, "zero"),
+    ],
+)
 def test_bad_readings(zoc, zsc, length, match):
     with pytest.raises(cal.ReadingError, match=match):
         cal.line_from_open_short([cal.OpenShort(F, zoc, zsc)], length_m=length)
@@ -92,21 +97,39 @@ def test_calibrate_command(tmp_path):
     ant = from_spec({"family": "bog", "length": "250 ft", "gauge": 16, "ground": "average"})
     zoc, zsc = _readings_of(ant.line(F), ant.length_m)
     rf = tmp_path / "r.toml"
-    rf.write_text(f'[wire]\nfamily = "bog"\nlength = "250 ft"\ngauge = 16\n[[open_short]]\nfrequency = "1.83 MHz"\n'
-                  f'open = [{zoc.real}, {zoc.imag}]\nshort = "{zsc.real}{zsc.imag:+}j"\n')
+    rf.write_text(
+        f'[wire]\nfamily = "bog"\nlength = "250 ft"\ngauge = 16\n[[open_short]]\nfrequency = "1.83 MHz"\n'
+        f'open = [{zoc.real}, {zoc.imag}]\nshort = "{zsc.real}{zsc.imag:+}j"\n'
+    )
     out = tmp_path / "fitted.toml"
     runner = CliRunner()
-    res = runner.invoke(cli, ["calibrate", str(rf), "--format", "json", "--scenario",
-                              str(SCENARIOS / "marrow-fen.toml"), "--write", str(out)])
+    res = runner.invoke(
+        cli,
+        [
+            "calibrate",
+            str(rf),
+            "--format",
+            "json",
+            "--scenario",
+            str(SCENARIOS / "marrow-fen.toml"),
+            "--write",
+            str(out),
+        ],
+    )
     assert res.exit_code == 0, res.output
     data = json.loads(res.stdout)
     assert data["fitted_ground"]["conductivity_s_per_m"] == pytest.approx(0.005, rel=0.05)
     assert 250 < data["suggested_termination_ohm"] < 450
     assert 'ground = { conductivity = "5 mS/m"' in out.read_text()
-    res = runner.invoke(cli, ["calibrate", str(rf), "--scenario", str(SCENARIOS / "marrow-fen.toml"), "--write", str(out)])
+    res = runner.invoke(
+        cli, ["calibrate", str(rf), "--scenario", str(SCENARIOS / "marrow-fen.toml"), "--write", str(out)]
+    )
     assert res.exit_code == 2 and "--overwrite" in res.stderr
     bad = tmp_path / "bad.toml"
-    bad.write_text('[wire]\nfamily = "bog"\nlength = "250 ft"\n[[open_short]]\nfrequency = "1.83 MHz"\nopen = "abc"\nshort = [1, 2]\n')
+    bad.write_text(
+        '[wire]\nfamily = "bog"\nlength = "250 ft"\n[[open_short]]\nfrequency = "1.83 MHz"\n'
+        'open = "abc"\nshort = [1, 2]\n'
+    )
     res = runner.invoke(cli, ["calibrate", str(bad)])
     assert res.exit_code == 2 and "open_short[0].open" in res.stderr
 
@@ -116,8 +139,16 @@ def test_calibrate_command(tmp_path):
 
 def test_small_loop_free_space_like_directivity_and_nulls():
     # Kraus: a small loop's directivity is 1.5; over a perfect ground the field doubles at the horizon (x4).
-    lossless_pec = from_spec({"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "1.5 m",
-                              "ground": "perfect", "bearing": 0})
+    lossless_pec = from_spec(
+        {
+            "family": "small-loop",
+            "width": "1 m",
+            "loop_height": "1 m",
+            "height": "1.5 m",
+            "ground": "perfect",
+            "bearing": 0,
+        }
+    )
     r_rad, r_loss = lossless_pec.input_resistance_ohm(F)
     g0 = lossless_pec.gain_linear(F, np.array([0.0]), np.array([0.0]))[0]
     # (0.1 %: the textbook 320 pi^4 takes eta0 = 120 pi, the code's field uses the CODATA eta0.)
@@ -136,16 +167,29 @@ LOOP = {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": 
 
 def _synth(antennas, *, bearing, fa_src=75.0, fa_bg=55.0, noise_db=0.5, seed=0):
     grid = upper_hemisphere(16)
-    bg = sky.diffuse_component("bg", kind="m", level=p372.NoiseLevel(fa_bg, 0, 0), directions=grid, elevation="low",
-                               elevation_params={"scale_rad": np.radians(10)})
-    src = sky.compact_component("s", level=p372.NoiseLevel(fa_src, 0, 0), azimuth_rad=np.radians(bearing),
-                                elevation_rad=np.radians(5), spread_rad=0.0)
+    bg = sky.diffuse_component(
+        "bg",
+        kind="m",
+        level=p372.NoiseLevel(fa_bg, 0, 0),
+        directions=grid,
+        elevation="low",
+        elevation_params={"scale_rad": np.radians(10)},
+    )
+    src = sky.compact_component(
+        "s",
+        level=p372.NoiseLevel(fa_src, 0, 0),
+        azimuth_rad=np.radians(bearing),
+        elevation_rad=np.radians(5),
+        spread_rad=0.0,
+    )
     rng = np.random.default_rng(seed)
     out = []
     for a in antennas:
-        t = (sky.weighted_temperature_k(a.gain_linear(F, grid.azimuth_rad, grid.elevation_rad), bg.weight_k_sr)
-             + sky.weighted_temperature_k(a.gain_linear(F, src.directions.azimuth_rad, src.directions.elevation_rad),
-                                          src.weight_k_sr))
+        t = sky.weighted_temperature_k(
+            a.gain_linear(F, grid.azimuth_rad, grid.elevation_rad), bg.weight_k_sr
+        ) + sky.weighted_temperature_k(
+            a.gain_linear(F, src.directions.azimuth_rad, src.directions.elevation_rad), src.weight_k_sr
+        )
         out.append(Reading(a, float(power_dbm(t, bandwidth_hz=500.0)) + rng.normal(0, noise_db)))
     return out
 
@@ -164,8 +208,10 @@ def test_loop_readings_recover_bearing_within_5_deg_modulo_180(bearing):
 
 
 def test_directional_antennas_resolve_the_ambiguity():
-    bevs = [from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "average", "bearing": b})
-            for b in range(0, 360, 45)]
+    bevs = [
+        from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "average", "bearing": b})
+        for b in range(0, 360, 45)
+    ]
     res = locate(_synth(bevs, bearing=250.0, seed=2), freq_hz=F, bandwidth_hz=500.0)
     assert res.ok and not res.sources[0].ambiguous_180
     assert abs((res.sources[0].bearing_deg - 250.0 + 180) % 360 - 180) < 8.0
@@ -192,8 +238,21 @@ def test_locate_command_writes_plot_and_scenario(tmp_path):
     rf.write_text(ex)
     png = tmp_path / "dir.png"
     out = tmp_path / "with-source.toml"
-    res = runner.invoke(cli, ["locate", str(rf), "--plot", str(png), "--scenario", str(SCENARIOS / "marrow-fen.toml"),
-                              "--write", str(out), "--format", "json"])
+    res = runner.invoke(
+        cli,
+        [
+            "locate",
+            str(rf),
+            "--plot",
+            str(png),
+            "--scenario",
+            str(SCENARIOS / "marrow-fen.toml"),
+            "--write",
+            str(out),
+            "--format",
+            "json",
+        ],
+    )
     assert res.exit_code == 0, res.output
     data = json.loads(res.stdout)
     assert data["ok"] and data["sources"][0]["ambiguous_180"]

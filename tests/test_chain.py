@@ -12,10 +12,13 @@ def test_friis_three_stages_by_hand():
     # Friis (Proc. IRE 1944): F = F1 + (F2-1)/G1 + (F3-1)/(G1 G2).  A preamplifier of 20 dB gain and 2 dB NF,
     # a 3 dB cable, a 10 dB NF receiver: F = 1.585 + (1.995-1)/100 + (10-1)/(100/1.995) = 1.775 (2.49 dB),
     # worked out by hand from the formula.
-    st = [chain.amplifier("pre", gain_db=20, noise_figure_db=2), chain.passive("cable", 3.0),
-          chain.amplifier("rx", gain_db=0, noise_figure_db=10)]
+    st = [
+        chain.amplifier("pre", gain_db=20, noise_figure_db=2),
+        chain.passive("cable", 3.0),
+        chain.amplifier("rx", gain_db=0, noise_figure_db=10),
+    ]
     f, g = chain.friis(st)
-    expect = 10 ** 0.2 + (10 ** 0.3 - 1) / 100 + (10 - 1) / (100 / 10 ** 0.3)
+    expect = 10**0.2 + (10**0.3 - 1) / 100 + (10 - 1) / (100 / 10**0.3)
     assert f == pytest.approx(expect, rel=1e-12)
     assert 10 * np.log10(f) == pytest.approx(2.49, abs=0.005)
     assert 10 * np.log10(g) == pytest.approx(17.0, abs=1e-9)
@@ -31,7 +34,9 @@ def test_p372_system_noise_factor_limits_and_friis():
     # ITU-R P.372 Section 2: f = fa + (lc-1) + lc(lt-1) + lc lt (fr-1).
     fr = 10.0
     assert chain.system_noise_factor(1e4, fr=fr) == pytest.approx(1e4 + fr - 1)  # lossless antenna and line
-    assert chain.system_noise_factor(1e8, lc=2, lt=3, fr=fr) / 1e8 == pytest.approx(1.0, rel=1e-6)  # external-noise limited
+    assert chain.system_noise_factor(1e8, lc=2, lt=3, fr=fr) / 1e8 == pytest.approx(
+        1.0, rel=1e-6
+    )  # external-noise limited
     assert chain.system_noise_factor(0.0, lc=1, lt=1, fr=1) == 0.0
     # It equals fa + (F_chain - 1) with F_chain the Friis cascade of the same losses and receiver.
     lc, lt, fa = 1.6, 2.5, 300.0
@@ -55,8 +60,9 @@ def test_cable_table_and_geometry():
     assert chain.cable_by_name("RG-6").impedance_ohm == 75
     # Geometry of a 50-ohm solid-PE cable like RG-213 (2.26 mm inner, 7.24 mm dielectric): the textbook loss
     # comes out within 40 % of the table at 10 MHz, and Z0 near 50 ohm.
-    loss_db_per_m, z0 = chain.coax_loss_from_geometry(10e6, inner_diameter_m=2.26e-3, dielectric_diameter_m=7.24e-3,
-                                                      permittivity=2.25)
+    loss_db_per_m, z0 = chain.coax_loss_from_geometry(
+        10e6, inner_diameter_m=2.26e-3, dielectric_diameter_m=7.24e-3, permittivity=2.25
+    )
     assert z0 == pytest.approx(46.5, abs=2.0)
     assert loss_db_per_m * 30.48 == pytest.approx(0.6, rel=0.4)
     with pytest.raises(ValueError, match="'RG-58'"):
@@ -73,12 +79,14 @@ def test_preamp_gain_for_margin():
     margin = 10 * np.log10(t_a / (290 * probe.with_preamp_gain(g).noise_factor))
     assert margin == pytest.approx(10.0, abs=1e-6)
     # Unreachable: the preamplifier's own noise (3 dB NF after 3 dB of cable) caps the margin below 20 dB here.
-    assert probe.preamp_gain_for_margin(290 * 10 ** 2.4, 20.0) is None
+    assert probe.preamp_gain_for_margin(290 * 10**2.4, 20.0) is None
 
 
 def test_chain_in_a_scenario(minimal_text):
-    weak = minimal_text.replace('[[candidate]]\nname = "iso"\nfamily = "isotropic"',
-                                '[[candidate]]\nname = "bog"\nfamily = "bog"\nlength = "60 m"\n')
+    weak = minimal_text.replace(
+        '[[candidate]]\nname = "iso"\nfamily = "isotropic"',
+        '[[candidate]]\nname = "bog"\nfamily = "bog"\nlength = "60 m"\n',
+    )
     base = weak.replace("[time]", '[noise.man_made]\nenvironment = "quiet rural"\n\n[time]')
     lossy = base + '\n[chain]\nfeedline = { cable = "RG-58", length = "600 ft" }\n[receiver]\nnoise_figure = "20 dB"\n'
     r = snrgain.evaluate(lossy)
@@ -87,15 +95,19 @@ def test_chain_in_a_scenario(minimal_text):
     # 600 ft of RG-58 ahead of the receiver: a preamplifier there cannot help enough; at the antenna it can.
     assert np.all(bog.preamp_gain_needed_db > 0) and bog.preamp_position == "antenna"
     assert any("at the antenna" in w for w in r.warnings)
-    with_pre = lossy.replace('[receiver]', '[chain.preamp]\ngain = "20 dB"\nnoise_figure = "3 dB"\nposition = "antenna"\n[receiver]')
-    with_pre = with_pre.replace('[chain]\nfeedline', '[chain]\nfeedline')
+    with_pre = lossy.replace(
+        "[receiver]", '[chain.preamp]\ngain = "20 dB"\nnoise_figure = "3 dB"\nposition = "antenna"\n[receiver]'
+    )
+    with_pre = with_pre.replace("[chain]\nfeedline", "[chain]\nfeedline")
     r2 = snrgain.evaluate(with_pre)
     assert r2.candidates[0].summary_snr_gain_db > bog.summary_snr_gain_db
 
 
 def test_an_antenna_can_have_its_own_chain(minimal_text):
-    two = minimal_text + ('\n[[candidate]]\nname = "iso far"\nfamily = "isotropic"\n'
-                          'chain = { feedline = { cable = "RG-58", length = "1500 ft" } }\n')
+    two = minimal_text + (
+        '\n[[candidate]]\nname = "iso far"\nfamily = "isotropic"\n'
+        'chain = { feedline = { cable = "RG-58", length = "1500 ft" } }\n'
+    )
     r = snrgain.evaluate(two)
     near = next(c for c in r.candidates if c.name == "iso")
     far = next(c for c in r.candidates if c.name == "iso far")
@@ -110,6 +122,10 @@ def test_an_antenna_can_have_its_own_chain(minimal_text):
 def test_antenna_chain_errors_name_the_antenna(minimal_text):
     from snrgain.scenario import ScenarioError, load
 
-    bad = minimal_text + '\n[[candidate]]\nname = "x"\nfamily = "isotropic"\nchain = { feedline = { cable = "RG-1" , length = "10 m"} }\n'
+    bad = (
+        minimal_text
+        + '\n[[candidate]]\nname = "x"\nfamily = "isotropic"\n'
+        + 'chain = { feedline = { cable = "RG-1" , length = "10 m"} }\n'
+    )
     with pytest.raises(ScenarioError, match=r"candidate\[1\]\.chain\.feedline"):
         load(bad)

@@ -85,7 +85,7 @@ def test_check_valid_and_invalid(runner, demo_path, tmp_path):
     res = runner.invoke(cli, ["check", str(demo_path)])
     assert res.exit_code == 0 and "valid" in res.stdout and "South America" in res.stdout
     bad = tmp_path / "bad.toml"
-    bad.write_text('[site]\nlatitude = 100\n')
+    bad.write_text("[site]\nlatitude = 100\n")
     res = runner.invoke(cli, ["check", str(bad)])
     assert res.exit_code == 2
     assert "site.latitude" in res.stderr and "between -90 and 90" in res.stderr

@@ -22,8 +22,11 @@ def _figures(ant, f, forward_deg):
     fw = ant.gain_linear(f, np.array([np.radians(forward_deg)]), np.array([EL20]))[0]
     bk = ant.gain_linear(f, np.array([np.radians(forward_deg + 180)]), np.array([EL20]))[0]
     m = ant.mismatch(f) if hasattr(ant, "mismatch") else 1.0
-    return {"forward_gain_dbi": 10 * np.log10(fw / m), "front_to_back_db": 10 * np.log10(fw / bk),
-            "rdf_db": 10 * np.log10(fw / snr.hemisphere_mean_gain(g, GRID))}
+    return {
+        "forward_gain_dbi": 10 * np.log10(fw / m),
+        "front_to_back_db": 10 * np.log10(fw / bk),
+        "rdf_db": 10 * np.log10(fw / snr.hemisphere_mean_gain(g, GRID)),
+    }
 
 
 @pytest.mark.parametrize("case", REF["loops"], ids=[c["name"] for c in REF["loops"]])
@@ -34,11 +37,18 @@ def test_terminated_loop_against_nec2(case):
     # 20 dB in both (measured: 1.5, 3.1, 2.8 dB off at 300, 500, 2000 ohm); near the termination of deepest
     # null one model or both put the rear 20-40 dB down, where its exact depth turns on details neither
     # resolves (the loop's capacitance, its coupling to the ground), so there the check is that both exceed 15 dB.
-    ant = from_spec({"family": "terminated-loop", "width": f"{case['width_m']} m",
-                     "loop_height": f"{case['loop_height_m']} m", "height": f"{case['height_m']} m",
-                     "termination": case["termination_ohm"], "bearing": 180, "diameter": f"{2 * case['radius_m']} m",
-                     "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m",
-                                "permittivity": case["permittivity"]}})
+    ant = from_spec(
+        {
+            "family": "terminated-loop",
+            "width": f"{case['width_m']} m",
+            "loop_height": f"{case['loop_height_m']} m",
+            "height": f"{case['height_m']} m",
+            "termination": case["termination_ohm"],
+            "bearing": 180,
+            "diameter": f"{2 * case['radius_m']} m",
+            "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
+        }
+    )
     got = _figures(ant, case["freq_mhz"] * 1e6, 180.0)
     assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
     assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
@@ -57,10 +67,16 @@ def test_phased_vertical_pair_against_nec2(case):
     # model counts as the element's series loss, plus NEC's own ground-contact resistance, about
     # 1 / (2 pi sigma 0.55 m) (measured on the long-wire cases).  Tolerances: RDF 1 dB, gain 2 dB, F/B 3 dB.
     contact = 1.0 / (2 * np.pi * case["conductivity_s_per_m"] * 0.55)
-    ant = from_spec({"family": "phased-verticals", "positions": [[0, 0], [0, case["spacing_m"]]],
-                     "height": f"{case['height_m']} m", "ground_loss": case["load_ohm"] + contact, "bearing": 0,
-                     "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m",
-                                "permittivity": case["permittivity"]}})
+    ant = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [0, case["spacing_m"]]],
+            "height": f"{case['height_m']} m",
+            "ground_loss": case["load_ohm"] + contact,
+            "bearing": 0,
+            "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
+        }
+    )
     got = _figures(ant, case["freq_mhz"] * 1e6, 0.0)
     assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
     assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
@@ -71,8 +87,16 @@ def test_quarter_wave_pair_of_isotropic_elements_is_a_cardioid():
     # Textbook (Kraus, Antennas, Section 4-3): two isotropic sources lambda/4 apart, 90 deg out of phase:
     # |AF|^2 = 4 cos^2(pi/4 (cos(theta) - 1)): null to the rear, 3 dB down at the sides.
     lam = C_M_PER_S / F
-    arr = from_spec({"family": "array", "bearing": 0, "elements": [
-        {"family": "isotropic", "position": [0, 0]}, {"family": "isotropic", "position": [0, lam / 4]}]})
+    arr = from_spec(
+        {
+            "family": "array",
+            "bearing": 0,
+            "elements": [
+                {"family": "isotropic", "position": [0, 0]},
+                {"family": "isotropic", "position": [0, lam / 4]},
+            ],
+        }
+    )
     az = np.radians(np.arange(0, 360, 5.0))
     g = arr.gain_linear(F, az, np.zeros_like(az))
     expect = 4 * np.cos(np.pi / 4 * (np.cos(az) - 1)) ** 2 / 2  # normalised by sum |w|^2 = 2
@@ -96,18 +120,25 @@ def test_uniform_linear_array_factor(n, d_wl, beta_deg):
     np.testing.assert_allclose(g, af, rtol=1e-9, atol=1e-12)
 
 
-@pytest.mark.parametrize("spec", [
-    {"family": "vertical", "height": "8 m"},
-    {"family": "beverage", "length": "200 m", "height": "2.5 m", "bearing": 30},
-    {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "2 m", "bearing": 70},
-    {"family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "height": "1.5 m", "termination": 900},
-])
+@pytest.mark.parametrize(
+    "spec",
+    [
+        {"family": "vertical", "height": "8 m"},
+        {"family": "beverage", "length": "200 m", "height": "2.5 m", "bearing": 30},
+        {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "2 m", "bearing": 70},
+        {"family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "height": "1.5 m", "termination": 900},
+    ],
+)
 def test_array_of_one_element_leaves_its_pattern_unchanged(spec):
     spec = {**spec, "ground": "average"}
     alone = from_spec(spec)
     arr = from_spec({"family": "array", "elements": [spec]})
-    np.testing.assert_allclose(arr.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad),
-                               alone.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad), rtol=1e-10, atol=0)
+    np.testing.assert_allclose(
+        arr.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad),
+        alone.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad),
+        rtol=1e-10,
+        atol=0,
+    )
 
 
 def test_broadside_pair_of_beverages_beats_one():
@@ -115,20 +146,37 @@ def test_broadside_pair_of_beverages_beats_one():
     lam = C_M_PER_S / F
     bev = {"family": "beverage", "length": "250 m", "height": "2.5 m", "ground": "average", "bearing": 0}
     one = from_spec(bev)
-    pair = from_spec({"family": "array", "steering": "given", "elements": [
-        {**bev, "position": [0, 0]}, {**bev, "position": [0.6 * lam, 0]}]})
-    assert 10 * np.log10(pair.gain_linear(F, np.array([0.0]), np.array([EL20]))[0]
-                         / one.gain_linear(F, np.array([0.0]), np.array([EL20]))[0]) == pytest.approx(3.01, abs=0.01)
+    pair = from_spec(
+        {
+            "family": "array",
+            "steering": "given",
+            "elements": [{**bev, "position": [0, 0]}, {**bev, "position": [0.6 * lam, 0]}],
+        }
+    )
+    assert 10 * np.log10(
+        pair.gain_linear(F, np.array([0.0]), np.array([EL20]))[0]
+        / one.gain_linear(F, np.array([0.0]), np.array([EL20]))[0]
+    ) == pytest.approx(3.01, abs=0.01)
     tgt = np.radians(20.0)
-    rdf = [snr.rdf_db(a.gain_linear(F, np.array([0.0]), np.array([tgt]))[0],
-                      snr.hemisphere_mean_gain(a.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad), GRID))
-           for a in (one, pair)]
+    rdf = [
+        snr.rdf_db(
+            a.gain_linear(F, np.array([0.0]), np.array([tgt]))[0],
+            snr.hemisphere_mean_gain(a.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad), GRID),
+        )
+        for a in (one, pair)
+    ]
     assert rdf[1] > rdf[0] + 1.5
 
 
 def test_terminated_loop_cardioid_and_figure_eight():
-    base = {"family": "terminated-loop", "width": "8.5 m", "loop_height": "4.3 m", "height": "1.5 m",
-            "ground": "average", "bearing": 45}
+    base = {
+        "family": "terminated-loop",
+        "width": "8.5 m",
+        "loop_height": "4.3 m",
+        "height": "1.5 m",
+        "ground": "average",
+        "bearing": 45,
+    }
     auto = from_spec({**base, "termination": "auto"})
     fb = auto.gain_dbi(F, 45, 20) - auto.gain_dbi(F, 225, 20)
     assert fb > 15 and 500 < auto.termination_ohm(F) < 2500  # common practice: flags want about 1 kohm
@@ -142,16 +190,27 @@ def test_array_bad_input():
     with pytest.raises(SpecError, match="one family"):
         from_spec({"family": "array", "elements": [{"family": "isotropic"}, {"family": "vertical", "height": "5 m"}]})
     with pytest.raises(SpecError, match="carries no phase|tabulated"):
-        arr = from_spec({"family": "array", "elements": [
-            {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")}]})
+        arr = from_spec(
+            {
+                "family": "array",
+                "elements": [{"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")}],
+            }
+        )
         arr.gain_linear(F, np.array([0.0]), np.array([0.1]))
     with pytest.raises(SpecError, match="steering = 'auto'"):
         from_spec({"family": "array", "elements": [{"family": "isotropic", "delay": "10 ns"}]})
     with pytest.raises(SpecError, match="elements\\[0\\].height"):
         from_spec({"family": "array", "elements": [{"family": "vertical", "height": "-5 m"}]})
     with pytest.raises(SpecError, match="delays has 1 entries"):
-        from_spec({"family": "phased-verticals", "positions": [[0, 0], [0, 40]], "height": "6 m",
-                   "steering": "given", "delays": ["10 ns"]})
+        from_spec(
+            {
+                "family": "phased-verticals",
+                "positions": [[0, 0], [0, 40]],
+                "height": "6 m",
+                "steering": "given",
+                "delays": ["10 ns"],
+            }
+        )
 
 
 # -- wire structures through the NEC-2 engine (optional extra) ------------------------------------------
@@ -163,8 +222,14 @@ def test_wire_structure_quarter_wave_vertical_textbook():
     # the mismatch of its feed impedance (about 40 + 23j ohm) into the transformer's load.
     pytest.importorskip("PyNEC", reason="PyNEC (optional extra 'nec') not installed")
     lam = C_M_PER_S / F
-    w = from_spec({"family": "wire-structure", "wires": [{"from": [0, 0, 0], "to": [0, 0, lam / 4], "radius": "5 mm"}],
-                   "feed": {"wire": 1, "at": 0.0}, "ground": "perfect"})
+    w = from_spec(
+        {
+            "family": "wire-structure",
+            "wires": [{"from": [0, 0, 0], "to": [0, 0, lam / 4], "radius": "5 mm"}],
+            "feed": {"wire": 1, "at": 0.0},
+            "ground": "perfect",
+        }
+    )
     g0 = w.gain_linear(F, np.array([0.0]), np.array([0.0]))[0] / w.mismatch(F)
     assert 10 * np.log10(g0) == pytest.approx(5.15, abs=0.05)
     # 36.5 ohm for an infinitely thin wire; a 5 mm wire exactly a quarter wave long reads a few ohms more.
@@ -180,8 +245,14 @@ def test_wire_structure_quarter_wave_vertical_textbook():
 def test_wire_structure_polarization_and_bearing():
     pytest.importorskip("PyNEC", reason="PyNEC (optional extra 'nec') not installed")
     lam = C_M_PER_S / F
-    d = from_spec({"family": "wire-structure", "ground": "perfect", "feed": {"wire": 1, "at": 0.5},
-                   "wires": [{"from": [-lam / 4, 0, lam / 4], "to": [lam / 4, 0, lam / 4]}]})  # along east-west
+    d = from_spec(
+        {
+            "family": "wire-structure",
+            "ground": "perfect",
+            "feed": {"wire": 1, "at": 0.5},
+            "wires": [{"from": [-lam / 4, 0, lam / 4], "to": [lam / 4, 0, lam / 4]}],
+        }
+    )  # along east-west
     gv, gh = d.partial_gains_dbi(F, [0.0, 90.0], [30.0, 30.0])
     assert gh[0] > 0 and gv[0] < -60  # broadside to the north: horizontally polarized
     assert d.gain_dbi(F, 0.0, 30.0) > d.gain_dbi(F, 90.0, 30.0) + 5
@@ -190,13 +261,24 @@ def test_wire_structure_polarization_and_bearing():
 @pytest.mark.nec
 def test_wire_structure_refuses_low_wires_over_lossy_ground():
     pytest.importorskip("PyNEC", reason="PyNEC (optional extra 'nec') not installed")
-    w = from_spec({"family": "wire-structure", "wires": [{"from": [0, 0, 2], "to": [100, 0, 2]}],
-                   "feed": {"wire": 1, "at": 0.0}, "ground": "average"})
+    w = from_spec(
+        {
+            "family": "wire-structure",
+            "wires": [{"from": [0, 0, 2], "to": [100, 0, 2]}],
+            "feed": {"wire": 1, "at": 0.0},
+            "ground": "average",
+        }
+    )
     with pytest.raises(ValueError, match="wires\\[0\\].*Sommerfeld"):
         w.check_frequency(F)
     with pytest.raises(SpecError, match="wire 3 is named"):
-        from_spec({"family": "wire-structure", "wires": [{"from": [0, 0, 2], "to": [1, 0, 2]}],
-                   "feed": {"wire": 3, "at": 0.0}})
+        from_spec(
+            {
+                "family": "wire-structure",
+                "wires": [{"from": [0, 0, 2], "to": [1, 0, 2]}],
+                "feed": {"wire": 3, "at": 0.0},
+            }
+        )
 
 
 def test_top_loading_makes_the_current_uniform():
@@ -205,8 +287,9 @@ def test_top_loading_makes_the_current_uniform():
     # uniform current heavy top loading gives: four times more.
     lam = C_M_PER_S / F
     plain = from_spec({"family": "vertical", "height": "3 m", "ground": "perfect", "ground_loss": 0})
-    hat = from_spec({"family": "vertical", "height": "3 m", "top_loading": "30 m", "ground": "perfect",
-                     "ground_loss": 0})
+    hat = from_spec(
+        {"family": "vertical", "height": "3 m", "top_loading": "30 m", "ground": "perfect", "ground_loss": 0}
+    )
     assert plain.radiation_resistance_ohm(F) == pytest.approx(40 * np.pi**2 * (3 / lam) ** 2, rel=0.01)
     ratio = hat.radiation_resistance_ohm(F) / plain.radiation_resistance_ohm(F)
     assert 3.0 < ratio < 4.0  # 30 m of loading on 3 m: close to uniform, not quite
@@ -235,8 +318,15 @@ def test_phased_verticals_auto_steering_points_along_the_bearing(bearing_deg):
     # "Antennas", 2nd ed., Section 4-6).
     u = np.array([np.sin(np.radians(bearing_deg)), np.cos(np.radians(bearing_deg))])
     spacing = C_M_PER_S / 1.83e6 / 4
-    ant = from_spec({"family": "phased-verticals", "positions": [[0, 0], list(spacing * u)], "height": "5 m",
-                     "bearing": bearing_deg, "ground": "average"})
+    ant = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], list(spacing * u)],
+            "height": "5 m",
+            "bearing": bearing_deg,
+            "ground": "average",
+        }
+    )
     az = np.arange(0.0, 360.0, 1.0)
     g = ant.gain_dbi(1.83e6, az, 10.0)
     peak = az[np.argmax(g)]

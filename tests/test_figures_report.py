@@ -188,7 +188,9 @@ def test_report_command(tmp_path):
 
 def test_figures_command(tmp_path):
     runner = CliRunner()
-    res = runner.invoke(cli, ["figures", str(SCENARIOS / "alder-hollow.toml"), "--dir", str(tmp_path), "--format", "svg"])
+    res = runner.invoke(
+        cli, ["figures", str(SCENARIOS / "alder-hollow.toml"), "--dir", str(tmp_path), "--format", "svg"]
+    )
     assert res.exit_code == 0, res.output
     names = sorted(p.name for p in tmp_path.iterdir())
     assert "plan.svg" in names and "ranking.svg" in names and "azimuth-target2.svg" in names
@@ -206,13 +208,26 @@ def _chromium():
 def test_report_renders_in_headless_chromium(results, tmp_path):
     page = tmp_path / "report.html"
     page.write_text(report.render(results))
-    args = [_chromium(), "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-            "--disable-background-networking", "--disable-component-update", "--disable-sync",
-            f"--user-data-dir={tmp_path / 'profile'}"]
+    args = [
+        _chromium(),
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        f"--user-data-dir={tmp_path / 'profile'}",
+    ]
     dom = subprocess.run(args + ["--dump-dom", page.as_uri()], capture_output=True, text=True, timeout=120)
     assert dom.returncode == 0, dom.stderr[-2000:]
-    assert "id=\"ranking\"" in dom.stdout and results.candidates[0].name in dom.stdout
+    assert 'id="ranking"' in dom.stdout and results.candidates[0].name in dom.stdout
     shot = tmp_path / "shot.png"
-    subprocess.run(args + [f"--screenshot={shot}", "--window-size=1200,2000", page.as_uri()],
-                   capture_output=True, text=True, timeout=120)
+    subprocess.run(
+        args + [f"--screenshot={shot}", "--window-size=1200,2000", page.as_uri()],
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
     assert shot.exists() and shot.stat().st_size > 20_000

@@ -11,7 +11,7 @@ import pytest
 from noisemodels.sphere import upper_hemisphere
 from snrgain import lines, snr, wiredesign
 from snrgain.antennas import SpecError, from_spec
-from snrgain.ground import GROUND_TYPES, C_M_PER_S
+from snrgain.ground import C_M_PER_S, GROUND_TYPES
 from tests.conftest import REPO
 
 NEC_DIR = REPO / "tests" / "nec"
@@ -21,20 +21,29 @@ EL20 = np.radians(20.0)
 
 
 def _model(case, *, termination, rods=0.0):
-    return from_spec({
-        "family": "beverage", "length": f"{case['length_m']} m", "height": f"{case['height_m']} m",
-        "diameter": f"{2 * case['radius_m']} m", "termination": termination, "feed_ground": rods, "far_ground": rods,
-        "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
-    })
+    return from_spec(
+        {
+            "family": "beverage",
+            "length": f"{case['length_m']} m",
+            "height": f"{case['height_m']} m",
+            "diameter": f"{2 * case['radius_m']} m",
+            "termination": termination,
+            "feed_ground": rods,
+            "far_ground": rods,
+            "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
+        }
+    )
 
 
 def _figures(ant, f):
     g = ant.gain_linear(f, GRID.azimuth_rad, GRID.elevation_rad)
     fwd = ant.gain_linear(f, np.array([0.0]), np.array([EL20]))[0]
     back = ant.gain_linear(f, np.array([np.pi]), np.array([EL20]))[0]
-    return {"forward_gain_dbi": 10 * np.log10(fwd / ant.mismatch(f)),
-            "front_to_back_db": 10 * np.log10(fwd / back),
-            "rdf_db": 10 * np.log10(fwd / snr.hemisphere_mean_gain(g, GRID))}
+    return {
+        "forward_gain_dbi": 10 * np.log10(fwd / ant.mismatch(f)),
+        "front_to_back_db": 10 * np.log10(fwd / back),
+        "rdf_db": 10 * np.log10(fwd / snr.hemisphere_mean_gain(g, GRID)),
+    }
 
 
 def _compare(case):
@@ -116,8 +125,18 @@ def test_against_pynec_over_perfect_ground(f_mhz, length, height):
     rp = ctx.get_radiation_pattern(0)
     th, ph = np.meshgrid(rp.get_theta_angles(), rp.get_phi_angles(), indexing="ij")
     ref = metrics(th.ravel(), ph.ravel(), np.asarray(rp.get_gain()).ravel())
-    ant = from_spec({"family": "beverage", "length": f"{length} m", "height": f"{height} m", "diameter": f"{2 * r} m",
-                     "termination": term, "feed_ground": 0, "far_ground": 0, "ground": "perfect"})
+    ant = from_spec(
+        {
+            "family": "beverage",
+            "length": f"{length} m",
+            "height": f"{height} m",
+            "diameter": f"{2 * r} m",
+            "termination": term,
+            "feed_ground": 0,
+            "far_ground": 0,
+            "ground": "perfect",
+        }
+    )
     got = _figures(ant, f_mhz * 1e6)
     assert got["rdf_db"] == pytest.approx(ref["rdf_db"], abs=2.0)
     assert got["forward_gain_dbi"] == pytest.approx(ref["forward_gain_dbi"], abs=2.0)
@@ -139,7 +158,9 @@ def test_perfect_ground_limit_z0(h, d_mm):
 
 def test_velocity_factor_of_a_3m_wire_near_09():
     # Common practice: a wire about 3 m high over average ground has a velocity factor near 0.9 at 1.8 MHz.
-    ln = lines.overhead_wire(1.83e6, radius_m=lines.awg_diameter_m(14) / 2, height_m=3.0, ground=GROUND_TYPES["average"])
+    ln = lines.overhead_wire(
+        1.83e6, radius_m=lines.awg_diameter_m(14) / 2, height_m=3.0, ground=GROUND_TYPES["average"]
+    )
     assert 0.85 <= ln.velocity_factor <= 0.98
     assert 400 <= abs(ln.z0) <= 650  # common practice: a few hundred ohms, 450-600 for AWG 14 at a few metres
 
@@ -252,11 +273,19 @@ def test_longer_wire_more_rdf_up_to_a_point():
     f = 1.83e6
     lam = C_M_PER_S / f
     tgt = wiredesign.along_wire_target(0.0)
-    rdf = [wiredesign.rdf_db(from_spec({"family": "beverage", "length": f"{x * lam} m", "height": "2.5 m",
-                                        "ground": "average"}), f, tgt, GRID) for x in (0.3, 0.6, 1.0, 1.5)]
+    rdf = [
+        wiredesign.rdf_db(
+            from_spec({"family": "beverage", "length": f"{x * lam} m", "height": "2.5 m", "ground": "average"}),
+            f,
+            tgt,
+            GRID,
+        )
+        for x in (0.3, 0.6, 1.0, 1.5)
+    ]
     assert np.all(np.diff(rdf) > 0)
-    advice = wiredesign.best_length({"family": "beverage", "length": "100 m", "height": "2.5 m", "ground": "average"},
-                                    f, steps=25)
+    advice = wiredesign.best_length(
+        {"family": "beverage", "length": "100 m", "height": "2.5 m", "ground": "average"}, f, steps=25
+    )
     assert 0.1 * lam < advice.best_m < advice.lengths_m[-1]  # an interior optimum: "up to a point"
 
 
@@ -283,24 +312,37 @@ def test_design_helpers():
     tr = wiredesign.transformer(from_spec(spec), 1.83e6)
     assert tr.exact_turns_ratio == pytest.approx(np.sqrt(abs(tr.feed_point_impedance_ohm) / 75))
     assert tr.chosen_mismatch_loss_db < 0.01 and tr.practical_mismatch_loss_db < 0.5
-    sweep = wiredesign.sweep_rdf(spec, 1.83e6, lengths_m=[150, 250], terminations_ohm=[300, 500], bearings_deg=[0, 90],
-                                 nside=8)
+    sweep = wiredesign.sweep_rdf(
+        spec, 1.83e6, lengths_m=[150, 250], terminations_ohm=[300, 500], bearings_deg=[0, 90], nside=8
+    )
     assert sweep.shape == (2, 2, 2)
 
 
 # -- bad input ------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize("spec, match", [
-    ({"family": "beverage", "length": "250 m", "height": "-1 m"}, "height"),
-    ({"family": "beverage", "length": "0 m", "height": "2 m"}, "length"),
-    ({"family": "beverage", "length": "250 m", "height": "2 m", "velocity_factor": 1.2, "attenuation": 1, "z0": 400},
-     "velocity_factor"),
-    ({"family": "beverage", "length": "250 m", "height": "2 m", "velocity_factor": 0.8}, "all three"),
-    ({"family": "unterminated", "length": "250 m", "height": "2 m", "termination": 500}, "no far-end termination"),
-    ({"family": "beverage", "length": "250 m", "height": "2 m", "gauge": 14, "diameter": "2 mm"}, "gauge"),
-    ({"family": "bog", "length": "80 m", "ground": "perfect"}, "real ground"),
-])
+@pytest.mark.parametrize(
+    "spec, match",
+    [
+        ({"family": "beverage", "length": "250 m", "height": "-1 m"}, "height"),
+        ({"family": "beverage", "length": "0 m", "height": "2 m"}, "length"),
+        (
+            {
+                "family": "beverage",
+                "length": "250 m",
+                "height": "2 m",
+                "velocity_factor": 1.2,
+                "attenuation": 1,
+                "z0": 400,
+            },
+            "velocity_factor",
+        ),
+        ({"family": "beverage", "length": "250 m", "height": "2 m", "velocity_factor": 0.8}, "all three"),
+        ({"family": "unterminated", "length": "250 m", "height": "2 m", "termination": 500}, "no far-end termination"),
+        ({"family": "beverage", "length": "250 m", "height": "2 m", "gauge": 14, "diameter": "2 mm"}, "gauge"),
+        ({"family": "bog", "length": "80 m", "ground": "perfect"}, "real ground"),
+    ],
+)
 def test_bad_input_names_the_field(spec, match):
     with pytest.raises(SpecError, match=match):
         ant = from_spec(spec)

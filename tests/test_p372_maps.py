@@ -8,8 +8,9 @@ import pytest
 from noisemodels import p372, p372_maps, sky, sphere, storms
 from tests.conftest import P372_DIR
 
-pytestmark = pytest.mark.skipif(not (P372_DIR / "COEFF01W.txt").exists(),
-                                reason="ITU-R P.372 data not found at ../shared/data/p372")
+pytestmark = pytest.mark.skipif(
+    not (P372_DIR / "COEFF01W.txt").exists(), reason="ITU-R P.372 data not found at ../shared/data/p372"
+)
 
 CHECK = P372_DIR / "check-values-site-south.csv"
 
@@ -93,7 +94,7 @@ def test_env_var_supplies_folder(monkeypatch):
 
 def test_missing_folder_says_how_to_get_data(monkeypatch, tmp_path):
     monkeypatch.delenv(p372_maps.ENV_VAR, raising=False)
-    with pytest.raises(p372_maps.P372DataError, match="Study Group 3.*model = \"given\""):
+    with pytest.raises(p372_maps.P372DataError, match='Study Group 3.*model = "given"'):
         p372.atmospheric(0.0, 0.0, month=3, freq_hz=2e6, time_block=1)
     with pytest.raises(p372_maps.P372DataError, match="COEFF03W.txt"):
         p372.atmospheric(0.0, 0.0, month=3, freq_hz=2e6, time_block=1, data_dir=tmp_path)
@@ -149,8 +150,9 @@ def test_storm_map_normalised_to_site_fa():
     # DESIGN.md: the reference monopole integrated over the map returns the site's P.372 Fa.
     grid = sphere.upper_hemisphere(32)
     lv = p372.atmospheric(41.6, -72.35, month=7, freq_hz=1.83e6, utc_hour=4, data_dir=P372_DIR)
-    comp = storms.storm_component(41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv, directions=grid,
-                                  data_dir=P372_DIR)
+    comp = storms.storm_component(
+        41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv, directions=grid, data_dir=P372_DIR
+    )
     assert p372.temperature_to_fa_db(sky.reference_temperature_k(comp)) == pytest.approx(float(lv.fa_db), abs=1e-9)
 
 
@@ -161,12 +163,22 @@ def test_single_storm_region_concentrates_on_its_bearing():
     grid = sphere.upper_hemisphere(32)
 
     def one_storm(lat, lon):
-        _, _, dist = Geod(ellps="WGS84").inv(np.full(lat.size, -88.0), np.full(lat.size, 27.0), lon.ravel(), lat.ravel())
+        _, _, dist = Geod(ellps="WGS84").inv(
+            np.full(lat.size, -88.0), np.full(lat.size, 27.0), lon.ravel(), lat.ravel()
+        )
         return np.where(dist.reshape(lat.shape) < 300e3, 1.0, 1e-9)
 
     lon0, lat0, _ = Geod(ellps="WGS84").fwd(-88.0, 27.0, 315.0, 2000e3)  # site 2,000 km north-west of the storm
-    comp = storms.storm_component(lat0, lon0, month=1, utc_hour=6, freq_hz=1.83e6, level=p372.NoiseLevel(60, 0, 0),
-                                  directions=grid, sources=one_storm)
+    comp = storms.storm_component(
+        lat0,
+        lon0,
+        month=1,
+        utc_hour=6,
+        freq_hz=1.83e6,
+        level=p372.NoiseLevel(60, 0, 0),
+        directions=grid,
+        sources=one_storm,
+    )
     assert _share_by_bearing(comp, 115, 155) > 0.9
 
 
@@ -181,7 +193,9 @@ def test_sunlit_paths_contribute_less():
     far = np.ones_like(el, dtype=bool)
     assert day[far].sum() < 1e-3 * night[far].sum()
     # Absorption law: zero sun (night) gives only the night loss per hop.
-    assert storms.hop_absorption_db(1.83, np.radians(10), np.radians(120)) == pytest.approx(storms.NIGHT_LOSS_DB_PER_HOP)
+    assert storms.hop_absorption_db(1.83, np.radians(10), np.radians(120)) == pytest.approx(
+        storms.NIGHT_LOSS_DB_PER_HOP
+    )
     assert storms.hop_absorption_db(7.1, np.radians(10), 0.0) < storms.hop_absorption_db(1.83, np.radians(10), 0.0)
 
 
@@ -230,8 +244,19 @@ def test_noise_command_table_and_json(tmp_path):
     from snrgain.cli.main import cli
 
     runner = CliRunner()
-    args = ["noise", "--lat", "41.6", "--lon", "-72.35", "--month", "7", "--frequency", "1.83 MHz",
-            "--p372-dir", str(P372_DIR)]
+    args = [
+        "noise",
+        "--lat",
+        "41.6",
+        "--lon",
+        "-72.35",
+        "--month",
+        "7",
+        "--frequency",
+        "1.83 MHz",
+        "--p372-dir",
+        str(P372_DIR),
+    ]
     res = runner.invoke(cli, args)
     assert res.exit_code == 0, res.output
     assert "atmospheric" in res.stdout and "share" in res.stdout
@@ -239,6 +264,9 @@ def test_noise_command_table_and_json(tmp_path):
     data = json.loads(res.stdout)
     assert len(data["utc_hours"]) == 24 and len(data["total"]["fa_db"]) == 24
     assert sum(s["share_percent"] for s in data["directions"]["sectors"]) == pytest.approx(100.0)
-    res = runner.invoke(cli, ["noise", "--lat", "0", "--lon", "0", "--month", "1", "--frequency", "2 MHz",
-                              "--p372-dir", str(tmp_path)], env={p372_maps.ENV_VAR: ""})
+    res = runner.invoke(
+        cli,
+        ["noise", "--lat", "0", "--lon", "0", "--month", "1", "--frequency", "2 MHz", "--p372-dir", str(tmp_path)],
+        env={p372_maps.ENV_VAR: ""},
+    )
     assert res.exit_code == 2 and "COEFF01W.txt" in res.stderr

@@ -67,8 +67,11 @@ def test_unknown_keys_are_errors(minimal_text):
 
 
 def test_every_problem_reported_at_once(minimal_text):
-    text = (minimal_text.replace('"500 Hz"', '"500"').replace('height = "20 m"', 'height = "-2 m"')
-            .replace("months = [1]", "months = [13]"))
+    text = (
+        minimal_text.replace('"500 Hz"', '"500"')
+        .replace('height = "20 m"', 'height = "-2 m"')
+        .replace("months = [1]", "months = [13]")
+    )
     err = _problems(text)
     paths = {p for p, _ in err.problems}
     assert {"band.bandwidth", "reference.height", "time.months"} <= paths
@@ -134,9 +137,14 @@ def test_pattern_file_relative_to_scenario():
 BASE = tomllib.loads(MINIMAL)
 
 junk = st.one_of(
-    st.none(), st.booleans(), st.integers(-10**6, 10**6), st.floats(allow_nan=True, allow_infinity=True),
-    st.text(max_size=12), st.sampled_from(["1.83 MHz", "-5 m", "S7", "5 mS/m", "400 ft", "abc", "1e999 Hz", ""]),
-    st.lists(st.integers(-50, 50), max_size=3), st.dictionaries(st.text(max_size=5), st.integers(), max_size=2),
+    st.none(),
+    st.booleans(),
+    st.integers(-(10**6), 10**6),
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.text(max_size=12),
+    st.sampled_from(["1.83 MHz", "-5 m", "S7", "5 mS/m", "400 ft", "abc", "1e999 Hz", ""]),
+    st.lists(st.integers(-50, 50), max_size=3),
+    st.dictionaries(st.text(max_size=5), st.integers(), max_size=2),
 )
 
 
@@ -167,8 +175,12 @@ _DELETE = object()
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(edits=st.lists(st.tuples(st.sampled_from(LEAVES), st.one_of(junk, st.just(_DELETE))), min_size=1, max_size=4),
-       extra=st.one_of(st.none(), st.tuples(st.sampled_from(["site", "band", "time", ""]), st.text(min_size=1, max_size=6))))
+@given(
+    edits=st.lists(st.tuples(st.sampled_from(LEAVES), st.one_of(junk, st.just(_DELETE))), min_size=1, max_size=4),
+    extra=st.one_of(
+        st.none(), st.tuples(st.sampled_from(["site", "band", "time", ""]), st.text(min_size=1, max_size=6))
+    ),
+)
 def test_malformed_scenarios_give_clear_errors(edits, extra):
     data = copy.deepcopy(BASE)
     for path, value in edits:
@@ -185,5 +197,5 @@ def test_malformed_scenarios_give_clear_errors(edits, extra):
         load(data)
     except ScenarioError as exc:
         assert exc.problems
-        for path, msg in exc.problems:
+        for _path, msg in exc.problems:
             assert isinstance(msg, str) and msg

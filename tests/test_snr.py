@@ -16,10 +16,13 @@ def _uniform_sky(grid, fa=60.0):
     return sky.diffuse_component("uniform", kind="test", level=p372.NoiseLevel(fa, 0, 0), directions=grid)
 
 
-@pytest.mark.parametrize("spec", [
-    {"family": "vertical", "height": "30 m", "ground": "average", "ground_loss": "10 ohm"},
-    {"family": "tabulated", "file": "scenarios/patterns/cardioid-pair.csv", "rotate": 45},
-])
+@pytest.mark.parametrize(
+    "spec",
+    [
+        {"family": "vertical", "height": "30 m", "ground": "average", "ground_loss": "10 ohm"},
+        {"family": "tabulated", "file": "scenarios/patterns/cardioid-pair.csv", "rotate": 45},
+    ],
+)
 def test_uniform_sky_no_receiver_noise_gives_ratio_of_directivities(spec, monkeypatch):
     # DESIGN.md "SNR": with uniform sky noise and no chain noise the SNR gain is the ratio of RDFs.
     from tests.conftest import REPO
@@ -29,7 +32,9 @@ def test_uniform_sky_no_receiver_noise_gives_ratio_of_directivities(spec, monkey
     comp = _uniform_sky(grid)
     ref = from_spec({"family": "vertical", "height": "20 m", "ground": "average"})
     cand = from_spec(spec)
-    tgt = from_bearing("t", bearing_rad=np.radians(45), elevation_lo_rad=np.radians(10), elevation_hi_rad=np.radians(20))
+    tgt = from_bearing(
+        "t", bearing_rad=np.radians(45), elevation_lo_rad=np.radians(10), elevation_hi_rad=np.radians(20)
+    )
     out = []
     for a in (cand, ref):
         cache = snr.GainCache(lambda az, el, a=a: a.gain_linear(F, az, el))
@@ -55,16 +60,25 @@ def test_isotropic_rdf_zero_under_isotropic_noise():
     assert t_a == pytest.approx(0.5 * t_sky, rel=1e-9)
 
 
-@pytest.mark.parametrize("shape, params", [("uniform", {}), ("low", {"scale_rad": 0.17}),
-                                           ("band", {"center_rad": 0.35, "width_rad": 0.17})])
+@pytest.mark.parametrize(
+    "shape, params", [("uniform", {}), ("low", {"scale_rad": 0.17}), ("band", {"center_rad": 0.35, "width_rad": 0.17})]
+)
 def test_every_component_normalised_to_its_fa_on_reference_monopole(shape, params):
     grid = sphere.upper_hemisphere(32)
-    comp = sky.diffuse_component("c", kind="test", level=p372.NoiseLevel(47.0, 0, 0), directions=grid,
-                                 elevation=shape, elevation_params=params, azimuth="sector",
-                                 azimuth_params={"start_rad": 1.0, "stop_rad": 2.0, "contrast_db": 10.0})
+    comp = sky.diffuse_component(
+        "c",
+        kind="test",
+        level=p372.NoiseLevel(47.0, 0, 0),
+        directions=grid,
+        elevation=shape,
+        elevation_params=params,
+        azimuth="sector",
+        azimuth_params={"start_rad": 1.0, "stop_rad": 2.0, "contrast_db": 10.0},
+    )
     assert p372.temperature_to_fa_db(sky.reference_temperature_k(comp)) == pytest.approx(47.0, abs=1e-9)
-    local = sky.compact_component("l", level=p372.NoiseLevel(55.0, 0, 0), azimuth_rad=4.0, elevation_rad=0.1,
-                                  spread_rad=0.15)
+    local = sky.compact_component(
+        "l", level=p372.NoiseLevel(55.0, 0, 0), azimuth_rad=4.0, elevation_rad=0.1, spread_rad=0.15
+    )
     assert p372.temperature_to_fa_db(sky.reference_temperature_k(local)) == pytest.approx(55.0, abs=1e-9)
 
 
@@ -110,9 +124,13 @@ def test_nside_32_and_64_agree(demo_path):
 
 
 def _scenario_with_local(minimal_text, bearing):
-    text = minimal_text.replace('[[candidate]]\nname = "iso"\nfamily = "isotropic"', (
-        '[[candidate]]\nname = "cardioid"\nfamily = "tabulated"\n'
-        'file = "scenarios/patterns/cardioid-pair.csv"\nrotate = 45\n'))
+    text = minimal_text.replace(
+        '[[candidate]]\nname = "iso"\nfamily = "isotropic"',
+        (
+            '[[candidate]]\nname = "cardioid"\nfamily = "tabulated"\n'
+            'file = "scenarios/patterns/cardioid-pair.csv"\nrotate = 45\n'
+        ),
+    )
     if bearing is not None:
         text += f'\n[[noise.local]]\nname = "n"\nbearing = {bearing}\nelevation = 5\nspread = 3\nlevel = "S9"\n'
     return text
@@ -131,8 +149,10 @@ def test_strong_source_in_null_raises_snr_gain(minimal_text, monkeypatch):
 
 
 def test_receiver_noise_lowers_snr_gain_of_weak_antenna(minimal_text):
-    base = minimal_text.replace('[[candidate]]\nname = "iso"\nfamily = "isotropic"',
-                                '[[candidate]]\nname = "weak"\nfamily = "vertical"\nheight = "1 m"\nground_loss = "500 ohm"\n')
+    base = minimal_text.replace(
+        '[[candidate]]\nname = "iso"\nfamily = "isotropic"',
+        '[[candidate]]\nname = "weak"\nfamily = "vertical"\nheight = "1 m"\nground_loss = "500 ohm"\n',
+    )
     quiet_rx = snrgain.evaluate(base + '\n[receiver]\nnoise_figure = "0 dB"\n')
     noisy_rx = snrgain.evaluate(base + '\n[receiver]\nnoise_figure = "30 dB"\n')
     assert noisy_rx.candidates[0].summary_snr_gain_db < quiet_rx.candidates[0].summary_snr_gain_db - 1.0

@@ -49,6 +49,8 @@ def test_place_target_uses_fewest_hops_above_min_elevation():
 
 
 def test_bearing_target_samples_range():
-    t = targets.from_bearing("x", bearing_rad=np.radians(45), elevation_lo_rad=np.radians(5), elevation_hi_rad=np.radians(25))
+    t = targets.from_bearing(
+        "x", bearing_rad=np.radians(45), elevation_lo_rad=np.radians(5), elevation_hi_rad=np.radians(25)
+    )
     assert np.degrees(t.elevation_rad[[0, -1]]) == pytest.approx([5, 25])
     assert np.all(np.diff(np.degrees(t.elevation_rad)) <= 1.0 + 1e-9)

@@ -29,9 +29,11 @@ p = np.sum(uf * np.cos(fe)) * np.radians(0.5) ** 2
 g = 4 * np.pi * u / p * 10 ** (EFFICIENCY_DB / 10)
 with np.errstate(divide="ignore"):
     gdb = np.maximum(10 * np.log10(g), -100.0)
-lines = ["# Idealised cardioid of two short phased verticals over perfect ground (demo data);",
-         "# written by make_cardioid_pair.py beside this file. Favours azimuth 0.",
-         "azimuth_deg,elevation_deg,gain_dbi"]
+lines = [
+    "# Idealised cardioid of two short phased verticals over perfect ground (demo data);",
+    "# written by make_cardioid_pair.py beside this file. Favours azimuth 0.",
+    "azimuth_deg,elevation_deg,gain_dbi",
+]
 for i, a in enumerate(az):
     for j, e in enumerate(el):
         lines.append(f"{a:g},{e:g},{gdb[i, j]:.2f}")

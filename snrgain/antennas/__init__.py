@@ -4,6 +4,7 @@
 Importing this package registers every family in :data:`FAMILIES`.
 """
 
+from snrgain.antennas import array, isotropic, longwire, smallloop, tabulated, termloop, vertical, wires  # noqa: F401
 from snrgain.antennas.base import (
     FAMILIES,
     Antenna,
@@ -14,6 +15,5 @@ from snrgain.antennas.base import (
     register,
     validate_spec,
 )
-from snrgain.antennas import array, isotropic, longwire, smallloop, tabulated, termloop, vertical, wires  # noqa: F401
 
 __all__ = ["FAMILIES", "Antenna", "AntennaParams", "SpecError", "from_si", "from_spec", "register", "validate_spec"]

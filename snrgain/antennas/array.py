@@ -194,9 +194,13 @@ class Array(Antenna):
         return np.abs(ev) ** 2, np.abs(eh) ** 2
 
     def describe(self):
-        out = {**super().describe(), "elements": len(self.elements), "element_family": self.elements[0].family,
-               "bearing_deg": float(np.degrees(self.params.bearing)),
-               "delays_ns": [float(t * 1e9) for t, _, _ in self.weights]}
+        out = {
+            **super().describe(),
+            "elements": len(self.elements),
+            "element_family": self.elements[0].family,
+            "bearing_deg": float(np.degrees(self.params.bearing)),
+            "delays_ns": [float(t * 1e9) for t, _, _ in self.weights],
+        }
         return out
 
 
@@ -205,8 +209,13 @@ class PhasedVerticals(Array):
     def __init__(self, params: PhasedVerticalsParams):
         elements = []
         for i, pos in enumerate(params.positions):
-            e = {"family": "vertical", "height": params.height, "ground_loss": params.ground_loss,
-                 "top_loading": params.top_loading, "position": [pos[0], pos[1]]}
+            e = {
+                "family": "vertical",
+                "height": params.height,
+                "ground_loss": params.ground_loss,
+                "top_loading": params.top_loading,
+                "position": [pos[0], pos[1]],
+            }
             if params.delays is not None:
                 e["delay"] = params.delays[i]
             if params.phases is not None:
@@ -214,9 +223,18 @@ class PhasedVerticals(Array):
             if params.amplitudes is not None:
                 e["amplitude"] = params.amplitudes[i]
             elements.append(e)
-        ap = ArrayParams.model_validate({"family": "array", "name": params.name, "position": params.position,
-                                         "elements": elements, "steering": params.steering, "bearing": params.bearing,
-                                         "ground": params.ground}, context=SI_CONTEXT)
+        ap = ArrayParams.model_validate(
+            {
+                "family": "array",
+                "name": params.name,
+                "position": params.position,
+                "elements": elements,
+                "steering": params.steering,
+                "bearing": params.bearing,
+                "ground": params.ground,
+            },
+            context=SI_CONTEXT,
+        )
         super().__init__(ap)
         self.params = params
 
@@ -226,9 +244,11 @@ class PhasedVerticals(Array):
         super().check_frequency(freq_hz)
         h_wl = (self.params.height + self.params.top_loading) * freq_hz / C_M_PER_S
         if h_wl > self.MAX_ELEMENT_WAVELENGTHS:
-            raise ValueError(f"height: elements of {h_wl:.2f} wavelength couple too strongly for a model without "
-                             f"mutual coupling; phased verticals are taken up to {self.MAX_ELEMENT_WAVELENGTHS} "
-                             "wavelength (with top loading)")
+            raise ValueError(
+                f"height: elements of {h_wl:.2f} wavelength couple too strongly for a model without "
+                f"mutual coupling; phased verticals are taken up to {self.MAX_ELEMENT_WAVELENGTHS} "
+                "wavelength (with top loading)"
+            )
 
     def describe(self):
         return {**super().describe(), "height_m": self.params.height}

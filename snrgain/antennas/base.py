@@ -89,7 +89,7 @@ class Antenna(ABC):
         with np.errstate(divide="ignore"):
             return 10.0 * np.log10(gv), 10.0 * np.log10(gh)
 
-    def check_frequency(self, freq_hz: float) -> None:
+    def check_frequency(self, freq_hz: float) -> None:  # noqa: B027 - valid everywhere unless a family says not
         """Raise ValueError if the model is not valid at ``freq_hz`` [Hz]."""
 
     def describe(self) -> dict[str, Any]:

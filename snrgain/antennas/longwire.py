@@ -66,8 +66,8 @@ from pydantic import Field, model_validator
 
 from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
-from snrgain.fields import Attenuation, Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.constants import FREQ_RANGE_HZ
+from snrgain.fields import Attenuation, Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
@@ -114,8 +114,10 @@ class UnterminatedParams(WireParams):
         if isinstance(data, dict):
             for key in ("termination", "far_ground"):
                 if key in data:
-                    raise ValueError(f"{key}: an unterminated wire has no far-end termination or ground rod; "
-                                     "use family 'beverage' for a terminated wire")
+                    raise ValueError(
+                        f"{key}: an unterminated wire has no far-end termination or ground rod; "
+                        "use family 'beverage' for a terminated wire"
+                    )
         return data
 
 
@@ -144,6 +146,7 @@ class TwoWireParams(WireParams):
 
 
 # -- pure kernels: the incident wave, the line's response ----------------------------------------------------
+
 
 def safe_expint(z, length):
     """(exp(z L) - 1) / z, with the limit L (1 + z L / 2) where |z L| is tiny."""
@@ -182,8 +185,9 @@ def plane_wave(freq_hz: float, azimuth_rad, elevation_rad, *, bearing_rad: float
     el_c = np.clip(el, 0.0, np.pi / 2)
     r_v, r_h = reflection_coefficients(ground, el_c, freq_hz)
     dphi = az - bearing_rad
-    return PlaneWave(2 * np.pi * freq_hz / C_M_PER_S, el, el_c, np.sin(el_c), dphi, np.cos(el_c) * np.cos(dphi),
-                     r_v, r_h)
+    return PlaneWave(
+        2 * np.pi * freq_hz / C_M_PER_S, el, el_c, np.sin(el_c), dphi, np.cos(el_c) * np.cos(dphi), r_v, r_h
+    )
 
 
 def field_along_wire(w: PlaneWave, height_m: float) -> tuple[np.ndarray, np.ndarray]:
@@ -201,8 +205,18 @@ def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
     return np.cos(w.el_c) * (seg + w.r_v * np.conj(seg))
 
 
-def line_currents(w: PlaneWave, *, line: lines.LineConstants, length_m: float, z_feed: complex,
-                  z_far: complex | None, drive, v_feed, v_far, far_current: bool = False):
+def line_currents(
+    w: PlaneWave,
+    *,
+    line: lines.LineConstants,
+    length_m: float,
+    z_feed: complex,
+    z_far: complex | None,
+    drive,
+    v_feed,
+    v_far,
+    far_current: bool = False,
+):
     """Feed and far-end currents [A] of a line driven by a plane wave (module docstring).
 
     The distributed EMF per metre is ``drive * exp(+j k along x)``; ``v_feed`` and ``v_far`` are lumped EMFs at
@@ -214,13 +228,13 @@ def line_currents(w: PlaneWave, *, line: lines.LineConstants, length_m: float, z
     e2 = np.exp(-2 * g * L)
     eg = np.exp(-g * L)
     z_minus = jkc - g
-    decay = np.exp(z_minus * L)                              # e^{(jkc - g) L}
-    phase_l = decay / eg                                     # e^{jkcL}
+    decay = np.exp(z_minus * L)  # e^{(jkc - g) L}
+    phase_l = decay / eg  # e^{jkcL}
     if g.real > 0:
-        j_plus = (decay - 1.0) / z_minus                     # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
+        j_plus = (decay - 1.0) / z_minus  # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
     else:  # a lossless line (measured constants): z_minus can vanish end-on
         j_plus = safe_expint(z_minus, L)
-    j_minus = (decay - e2) / (jkc + g)                       # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
+    j_minus = (decay - e2) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
     i_cosh, i_sinh = 0.5 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
     ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
     v_far = v_far * phase_l
@@ -230,8 +244,8 @@ def line_currents(w: PlaneWave, *, line: lines.LineConstants, length_m: float, z
     i_f = (drive * (z0 * i_cosh + z_far * i_sinh) + v_feed * (z0 * ch + z_far * sh) - v_far * z0 * eg) / denom
     if not far_current:
         return i_f, None
-    k_plus = (phase_l - eg) / (jkc + g)                      # e^{-gL} int e^{jkcx} e^{gx} dx
-    k_minus = eg * j_plus                                    # e^{-gL} int e^{jkcx} e^{-gx} dx
+    k_plus = (phase_l - eg) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{gx} dx
+    k_minus = eg * j_plus  # e^{-gL} int e^{jkcx} e^{-gx} dx
     k_cosh, k_sinh = 0.5 * (k_plus + k_minus), 0.5 * (k_plus - k_minus)
     i_r = (drive * (z0 * k_cosh + z_feed * k_sinh) + v_feed * z0 * eg - v_far * (z0 * ch + z_feed * sh)) / denom
     return i_f, i_r
@@ -277,8 +291,9 @@ class LongWire(TransformerFeed, Antenna):
         if hit is None:
             p = self.params
             if p.velocity_factor is not None:
-                hit = lines.measured_constants(freq_hz, velocity_factor=p.velocity_factor,
-                                               attenuation_db_per_100m=p.attenuation, z0_ohm=p.z0)
+                hit = lines.measured_constants(
+                    freq_hz, velocity_factor=p.velocity_factor, attenuation_db_per_100m=p.attenuation, z0_ohm=p.z0
+                )
             else:
                 hit = self.computed_line(freq_hz)
             self._cache[freq_hz] = hit
@@ -287,8 +302,12 @@ class LongWire(TransformerFeed, Antenna):
     def computed_line(self, freq_hz: float, ground=None) -> lines.LineConstants:
         """The model's line constants at a frequency over this antenna's ground, or over ``ground`` if given
         (measured constants are ignored; nothing is cached)."""
-        return lines.overhead_wire(freq_hz, radius_m=self.params.radius_m, height_m=self.wire_height_m(),
-                                   ground=self.ground if ground is None else ground)
+        return lines.overhead_wire(
+            freq_hz,
+            radius_m=self.params.radius_m,
+            height_m=self.wire_height_m(),
+            ground=self.ground if ground is None else ground,
+        )
 
     def termination_ohm(self, freq_hz: float) -> float | None:
         """Far-end resistor [ohm]: as given, or |Z0| less the far ground rod for 'auto'; None if open."""
@@ -306,17 +325,22 @@ class LongWire(TransformerFeed, Antenna):
     def feed_point_impedance(self, freq_hz: float) -> complex:
         """Impedance the transformer's primary sees: the line's input impedance plus the feed ground rod [ohm]."""
         ln = self.line(freq_hz)
-        return lines.input_impedance(ln, length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz)) + self.feed_rod_ohm
+        return (
+            lines.input_impedance(ln, length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz)) + self.feed_rod_ohm
+        )
 
     def check_frequency(self, freq_hz):
         lo, hi = FREQ_RANGE_HZ
         if not lo <= freq_hz <= hi:
-            raise ValueError(f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's "
-                             f"{lo / 1e6:g}-{hi / 1e6:g} MHz")
+            raise ValueError(
+                f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's {lo / 1e6:g}-{hi / 1e6:g} MHz"
+            )
         h_wl = self.wire_height_m() * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
-            raise ValueError(f"height: {self.wire_height_m():g} m is {h_wl:.3f} wavelengths at {freq_hz / 1e6:g} MHz; "
-                             f"the line model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths")
+            raise ValueError(
+                f"height: {self.wire_height_m():g} m is {h_wl:.3f} wavelengths at {freq_hz / 1e6:g} MHz; "
+                f"the line model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths"
+            )
 
     # -- the response ---------------------------------------------------------------
     def _excitation(self, w: PlaneWave):
@@ -335,9 +359,17 @@ class LongWire(TransformerFeed, Antenna):
         no_lead = np.zeros_like(lead)
         out = {}
         for pol, drive, v_lead in (("v", a_v, lead), ("h", a_h, no_lead)):
-            out[pol] = line_currents(w, line=self.line(freq_hz), length_m=self.length_m, z_feed=zf, z_far=zr,
-                                     drive=drive, v_feed=v_lead, v_far=v_lead if self.has_far_lead else no_lead,
-                                     far_current=far_current)
+            out[pol] = line_currents(
+                w,
+                line=self.line(freq_hz),
+                length_m=self.length_m,
+                z_feed=zf,
+                z_far=zr,
+                drive=drive,
+                v_feed=v_lead,
+                v_far=v_lead if self.has_far_lead else no_lead,
+                far_current=far_current,
+            )
         return out, w
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
@@ -358,9 +390,14 @@ class LongWire(TransformerFeed, Antenna):
 
     def describe(self):
         p = self.params
-        return {**super().describe(), "length_m": self.length_m, "height_m": self.wire_height_m(),
-                "bearing_deg": float(np.degrees(self.bearing_rad)), "wire_radius_m": p.radius_m,
-                "ground": "perfect" if self.ground is None else self.ground.name}
+        return {
+            **super().describe(),
+            "length_m": self.length_m,
+            "height_m": self.wire_height_m(),
+            "bearing_deg": float(np.degrees(self.bearing_rad)),
+            "wire_radius_m": p.radius_m,
+            "ground": "perfect" if self.ground is None else self.ground.name,
+        }
 
     def design(self, freq_hz: float) -> dict:
         """Line constants, loads and matching at a frequency (SI units in the keys)."""
@@ -398,8 +435,9 @@ class Bog(LongWire):
     def __init__(self, params: BogParams):
         super().__init__(params)
         if self.ground is None:
-            raise ValueError("ground: a wire on the ground needs a real ground (conductivity and permittivity), "
-                             "not 'perfect'")
+            raise ValueError(
+                "ground: a wire on the ground needs a real ground (conductivity and permittivity), not 'perfect'"
+            )
 
     def wire_height_m(self) -> float:
         return self.params.height if self.params.depth == 0 else 0.0
@@ -409,15 +447,21 @@ class Bog(LongWire):
         a = p.radius_m
         b = a + p.insulation_thickness
         where = {"depth_m": p.depth} if p.depth > 0 else {"height_m": max(p.height, b)}
-        return lines.insulated_on_ground(freq_hz, radius_m=a, insulation_radius_m=b,
-                                         insulation_permittivity=p.insulation_permittivity,
-                                         ground=self.ground if ground is None else ground, **where)
+        return lines.insulated_on_ground(
+            freq_hz,
+            radius_m=a,
+            insulation_radius_m=b,
+            insulation_permittivity=p.insulation_permittivity,
+            ground=self.ground if ground is None else ground,
+            **where,
+        )
 
     def check_frequency(self, freq_hz):
         lo, hi = FREQ_RANGE_HZ
         if not lo <= freq_hz <= hi:
-            raise ValueError(f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's "
-                             f"{lo / 1e6:g}-{hi / 1e6:g} MHz")
+            raise ValueError(
+                f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's {lo / 1e6:g}-{hi / 1e6:g} MHz"
+            )
 
     def describe(self):
         return {**super().describe(), "depth_m": self.params.depth}
@@ -430,8 +474,9 @@ class TwoWire(LongWire):
     def computed_line(self, freq_hz, ground=None):
         p = self.params
         a_eq = np.sqrt(p.radius_m * p.spacing)
-        return lines.overhead_wire(freq_hz, radius_m=a_eq, height_m=p.height,
-                                   ground=self.ground if ground is None else ground)
+        return lines.overhead_wire(
+            freq_hz, radius_m=a_eq, height_m=p.height, ground=self.ground if ground is None else ground
+        )
 
     def termination_ohm(self, freq_hz):
         # The reflection transformer matches the common mode to the pair's differential line.
@@ -450,8 +495,10 @@ class TwoWire(LongWire):
         currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad, far_current=True)
         load = self.termination_ohm(freq_hz)
         loss = self.differential_loss(freq_hz)
-        return tuple(port_response(freq_hz, currents[pol][1], load_ohm=load, elevation_rad=w.el, power_factor=loss)
-                     for pol in ("v", "h"))
+        return tuple(
+            port_response(freq_hz, currents[pol][1], load_ohm=load, elevation_rad=w.el, power_factor=loss)
+            for pol in ("v", "h")
+        )
 
     def mismatch(self, freq_hz):
         if self.params.port == "reverse":

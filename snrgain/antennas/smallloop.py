@@ -49,8 +49,10 @@ class SmallLoopParams(WireSize, AntennaParams):
     @model_validator(mode="after")
     def _fits(self):
         if self.height < self.loop_height / 2:
-            raise ValueError(f"height (of the loop's centre, {self.height:g} m) must be at least half the loop's "
-                             f"height ({self.loop_height / 2:g} m)")
+            raise ValueError(
+                f"height (of the loop's centre, {self.height:g} m) must be at least half the loop's "
+                f"height ({self.loop_height / 2:g} m)"
+            )
         return self
 
 
@@ -65,8 +67,10 @@ class SmallLoop(Antenna):
         lam = C_M_PER_S / freq_hz
         perimeter = 2 * (self.params.width + self.params.loop_height) * self.params.turns
         if perimeter > 0.1 * lam:
-            raise ValueError(f"width, loop_height: the loop's wire ({perimeter:g} m) exceeds a tenth of a wavelength "
-                             f"at {freq_hz / 1e6:g} MHz; the small-loop model does not hold")
+            raise ValueError(
+                f"width, loop_height: the loop's wire ({perimeter:g} m) exceeds a tenth of a wavelength "
+                f"at {freq_hz / 1e6:g} MHz; the small-loop model does not hold"
+            )
 
     def input_resistance_ohm(self, freq_hz: float) -> tuple[float, float]:
         """(radiation resistance, loss resistance) [ohm]."""
@@ -103,5 +107,10 @@ class SmallLoop(Antenna):
         return tuple(np.where(above_horizon(el), amp * hn, 0.0) for hn in (h_v, h_h))
 
     def describe(self):
-        return {**super().describe(), "area_m2": self.area_m2, "height_m": self.params.height,
-                "bearing_deg": float(np.degrees(self.params.bearing)), "turns": self.params.turns}
+        return {
+            **super().describe(),
+            "area_m2": self.area_m2,
+            "height_m": self.params.height,
+            "bearing_deg": float(np.degrees(self.params.bearing)),
+            "turns": self.params.turns,
+        }

@@ -141,8 +141,10 @@ class Tabulated(Antenna):
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         if not self.has_polarization:
             raise ValueError(f"{self.path}: the table gives total gain only (no gain_v_dbi/gain_h_dbi columns)")
-        return (self._lookup("gain_v_dbi", azimuth_rad, elevation_rad),
-                self._lookup("gain_h_dbi", azimuth_rad, elevation_rad))
+        return (
+            self._lookup("gain_v_dbi", azimuth_rad, elevation_rad),
+            self._lookup("gain_h_dbi", azimuth_rad, elevation_rad),
+        )
 
     def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
         if self.has_polarization:

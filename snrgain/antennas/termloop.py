@@ -77,8 +77,11 @@ def loop_line(freq_hz: float, *, radius_m: float, spacing_m: float) -> lines.Lin
     return lines.LineConstants(float(freq_hz), gamma * z0, gamma / z0, gamma, complex(z0))
 
 
-@register("terminated-loop", TerminatedLoopParams,
-          "small loop in a vertical plane with a termination resistor (rectangle, triangle, diamond)")
+@register(
+    "terminated-loop",
+    TerminatedLoopParams,
+    "small loop in a vertical plane with a termination resistor (rectangle, triangle, diamond)",
+)
 class TerminatedLoop(TransformerFeed, Antenna):
     """See the module docstring."""
 
@@ -104,8 +107,10 @@ class TerminatedLoop(TransformerFeed, Antenna):
     def check_frequency(self, freq_hz):
         lam = C_M_PER_S / freq_hz
         if self.spacing_m > 0.1 * lam or self.params.width > 0.5 * lam:
-            raise ValueError(f"width, loop_height: the loop is too large for the line model at {freq_hz / 1e6:g} MHz "
-                             "(spacing up to 0.1 and width up to 0.5 wavelength)")
+            raise ValueError(
+                f"width, loop_height: the loop is too large for the line model at {freq_hz / 1e6:g} MHz "
+                "(spacing up to 0.1 and width up to 0.5 wavelength)"
+            )
 
     def line(self, freq_hz: float) -> lines.LineConstants:
         if freq_hz not in self._lines:
@@ -161,8 +166,16 @@ class TerminatedLoop(TransformerFeed, Antenna):
         load = self._load_ohm(freq_hz, termination_ohm)
         out = []
         for drive, v_side in ((top_v - bottom_v, side), (top_h - bottom_h, np.zeros_like(side))):
-            i_f, _ = line_currents(w, line=self.line(freq_hz), length_m=self.width_m, z_feed=load,
-                                   z_far=termination_ohm, drive=drive, v_feed=v_side, v_far=v_side)
+            i_f, _ = line_currents(
+                w,
+                line=self.line(freq_hz),
+                length_m=self.width_m,
+                z_feed=load,
+                z_far=termination_ohm,
+                drive=drive,
+                v_feed=v_side,
+                v_far=v_side,
+            )
             out.append(port_response(freq_hz, i_f, load_ohm=load, elevation_rad=w.el))
         return tuple(out)
 
@@ -179,6 +192,13 @@ class TerminatedLoop(TransformerFeed, Antenna):
 
     def describe(self):
         p = self.params
-        return {**super().describe(), "shape": p.shape, "width_m": p.width, "loop_height_m": p.loop_height,
-                "height_m": p.height, "length_m": p.width, "bearing_deg": float(np.degrees(p.bearing)),
-                "ground": "perfect" if self.ground is None else self.ground.name}
+        return {
+            **super().describe(),
+            "shape": p.shape,
+            "width_m": p.width,
+            "loop_height_m": p.loop_height,
+            "height_m": p.height,
+            "length_m": p.width,
+            "bearing_deg": float(np.degrees(p.bearing)),
+            "ground": "perfect" if self.ground is None else self.ground.name,
+        }

@@ -34,7 +34,6 @@ import numpy as np
 from pydantic import BeforeValidator, Field, model_validator
 from scipy.interpolate import RegularGridInterpolator
 
-from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity, wire_radius_m
 from snrgain.ground import C_M_PER_S
@@ -137,7 +136,8 @@ class WireStructure(TransformerFeed, Antenna):
                     f"wires[{i}]: at {low:g} m it is lower than {MIN_LOSSY_HEIGHT_WAVELENGTHS} wavelength "
                     f"({MIN_LOSSY_HEIGHT_WAVELENGTHS * lam:.1f} m) over lossy ground, where the NEC-2 engine's "
                     "Sommerfeld solution is unreliable; raise it, use ground = 'perfect', or a family of snrgain's "
-                    "own (beverage, bog, terminated-loop)")
+                    "own (beverage, bog, terminated-loop)"
+                )
 
     def _solve(self, freq_hz: float) -> dict:
         if freq_hz in self._solved:

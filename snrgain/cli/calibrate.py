@@ -6,18 +6,27 @@ from pathlib import Path
 
 import click
 
-from snrgain.cli.options import emit_json, handle_errors, readings_preamble, scenario_copy_options, write_output
 from snrgain.calibrate import EXAMPLE
+from snrgain.cli.options import emit_json, handle_errors, readings_preamble, scenario_copy_options, write_output
 
 
 @click.command("calibrate")
 @click.argument("readings", type=click.Path(dir_okay=False, path_type=str), required=False)
 @click.option("--example", is_flag=True, help="Print an example readings file and exit.")
-@click.option("--expected-vf", type=click.FloatRange(0.05, 1.0), default=0.8, show_default=True,
-              help="Velocity factor expected, to pick the branch of a long wire's phase (ignored when the wire is "
-                   "shorter than a quarter wave).")
-@click.option("--permittivity", type=click.FloatRange(1, 100), default=None,
-              help="Fix the soil's relative permittivity and fit only its conductivity.")
+@click.option(
+    "--expected-vf",
+    type=click.FloatRange(0.05, 1.0),
+    default=0.8,
+    show_default=True,
+    help="Velocity factor expected, to pick the branch of a long wire's phase (ignored when the wire is "
+    "shorter than a quarter wave).",
+)
+@click.option(
+    "--permittivity",
+    type=click.FloatRange(1, 100),
+    default=None,
+    help="Fix the soil's relative permittivity and fit only its conductivity.",
+)
 @scenario_copy_options("the fitted ground written into its [site] section")
 @handle_errors
 def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, overwrite, fmt):
@@ -30,8 +39,9 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
     """
     from snrgain import calibrate as cal
 
-    if readings_preamble(example_text=EXAMPLE, example=example, readings=readings, scenario=scenario,
-                         write_to=write_to):
+    if readings_preamble(
+        example_text=EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
+    ):
         return
     res = cal.calibrate(cal.load_readings(readings), expected_velocity_factor=expected_vf, permittivity=permittivity)
     out = res.as_dict()
@@ -45,22 +55,32 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
     ant = res.antenna
     lines_out = [f"{ant.family} wire, {ant.length_m:.1f} m"]
     for ln in res.constants:
-        lines_out.append(f"  {ln.freq_hz / 1e6:g} MHz: velocity factor {ln.velocity_factor:.3f}, attenuation "
-                         f"{ln.attenuation_db_per_100m:.2f} dB/100 m ({ln.attenuation_db_per_100ft:.2f} dB/100 ft), "
-                         f"Z0 {ln.z0.real:.0f}{ln.z0.imag:+.0f}j ohm")
+        lines_out.append(
+            f"  {ln.freq_hz / 1e6:g} MHz: velocity factor {ln.velocity_factor:.3f}, attenuation "
+            f"{ln.attenuation_db_per_100m:.2f} dB/100 m ({ln.attenuation_db_per_100ft:.2f} dB/100 ft), "
+            f"Z0 {ln.z0.real:.0f}{ln.z0.imag:+.0f}j ohm"
+        )
     for r in res.resonances:
-        lines_out.append(f"  quarter-wave resonance at {r['freq_hz'] / 1e6:g} MHz: velocity factor "
-                         f"{r['velocity_factor']:.3f}")
+        lines_out.append(
+            f"  quarter-wave resonance at {r['freq_hz'] / 1e6:g} MHz: velocity factor {r['velocity_factor']:.3f}"
+        )
     g = out["fitted_ground"]
-    eps_txt = (f"{g['permittivity']:.3g} (fixed)" if g["permittivity_fixed"]
-               else f"{g['permittivity']:.3g} +- {g['permittivity_sigma']:.2g}")
-    lines_out.append(f"  fitted ground: conductivity {g['conductivity_s_per_m'] * 1e3:.3g} mS/m (x/÷ "
-                     f"{g['conductivity_uncertainty_factor']:.2f}), permittivity {eps_txt}; residual rms "
-                     f"{g['residual_rms']:.2f} (in measurement uncertainties)")
+    eps_txt = (
+        f"{g['permittivity']:.3g} (fixed)"
+        if g["permittivity_fixed"]
+        else f"{g['permittivity']:.3g} +- {g['permittivity_sigma']:.2g}"
+    )
+    lines_out.append(
+        f"  fitted ground: conductivity {g['conductivity_s_per_m'] * 1e3:.3g} mS/m (x/÷ "
+        f"{g['conductivity_uncertainty_factor']:.2f}), permittivity {eps_txt}; residual rms "
+        f"{g['residual_rms']:.2f} (in measurement uncertainties)"
+    )
     lines_out.append(f"  scenario: [site] ground = {res.fit.scenario_value()}")
     if res.suggested_termination_ohm is not None:
-        lines_out.append(f"  suggested termination {res.suggested_termination_ohm:.0f} ohm (|Z0| less the far rod); "
-                         f"transformer turns ratio {res.suggested_turns_ratio:.2f} to {ant.params.coax} ohm coax")
+        lines_out.append(
+            f"  suggested termination {res.suggested_termination_ohm:.0f} ohm (|Z0| less the far rod); "
+            f"transformer turns ratio {res.suggested_turns_ratio:.2f} to {ant.params.coax} ohm coax"
+        )
     if scenario is not None:
         lines_out.append(f"  wrote {write_to}")
     click.echo("\n".join(lines_out))

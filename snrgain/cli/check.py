@@ -23,12 +23,16 @@ def check(scenario, p372_dir):
     sc = load(scenario, p372_dir=p372_dir)
     click.echo(f"{sc.source}: valid")
     click.echo(f"  site {sc.site.name!r} at {sc.site.latitude_deg:.3f}, {sc.site.longitude_deg:.3f}")
-    click.echo(f"  {sc.freq_hz / 1e6:g} MHz, {sc.bandwidth_hz:g} Hz; {len(sc.times.months)} month(s) x "
-               f"{len(sc.times.utc_hours)} hour(s)")
+    click.echo(
+        f"  {sc.freq_hz / 1e6:g} MHz, {sc.bandwidth_hz:g} Hz; {len(sc.times.months)} month(s) x "
+        f"{len(sc.times.utc_hours)} hour(s)"
+    )
     for t in sc.targets:
         extra = f", {t.distance_m / 1e3:.0f} km, {t.hops[0]}-{t.hops[1]} hops" if t.distance_m else ""
-        click.echo(f"  target {t.name!r}: bearing {np.degrees(t.bearing_rad):.1f} deg, elevation "
-                   f"{np.degrees(t.elevation_rad.min()):.1f}-{np.degrees(t.elevation_rad.max()):.1f} deg{extra}")
+        click.echo(
+            f"  target {t.name!r}: bearing {np.degrees(t.bearing_rad):.1f} deg, elevation "
+            f"{np.degrees(t.elevation_rad.min()):.1f}-{np.degrees(t.elevation_rad.max()):.1f} deg{extra}"
+        )
     click.echo(f"  reference: {sc.reference.name} ({sc.reference.family})")
     for a in sc.candidates:
         click.echo(f"  candidate: {a.name} ({a.family})")

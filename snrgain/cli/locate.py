@@ -22,10 +22,19 @@ from snrgain.locate import EXAMPLE
 @click.option("--example", is_flag=True, help="Print an example readings file and exit.")
 @click.option("--sources", type=click.IntRange(1, 3), default=1, show_default=True, help="Number of sources to fit.")
 @click.option("--fit-elevation", is_flag=True, help="Fit each source's elevation too (default: held at --elevation).")
-@click.option("--elevation", type=click.FloatRange(0, 85), default=5.0, show_default=True,
-              help="Source elevation [deg] when not fitted.")
-@click.option("--plot", type=click.Path(dir_okay=False, path_type=str), default=None,
-              help="Save a polar plot of the fitted direction (PNG or SVG).")
+@click.option(
+    "--elevation",
+    type=click.FloatRange(0, 85),
+    default=5.0,
+    show_default=True,
+    help="Source elevation [deg] when not fitted.",
+)
+@click.option(
+    "--plot",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Save a polar plot of the fitted direction (PNG or SVG).",
+)
 @scenario_copy_options("the fitted sources added as [[noise.local]]")
 @handle_errors
 def locate(readings, example, sources, fit_elevation, elevation, plot, scenario, write_to, overwrite, fmt):
@@ -38,14 +47,21 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     """
     from snrgain import locate as loc
 
-    if readings_preamble(example_text=EXAMPLE, example=example, readings=readings, scenario=scenario,
-                         write_to=write_to):
+    if readings_preamble(
+        example_text=EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
+    ):
         return
     for target in (plot, write_to):
         check_output(target, overwrite=overwrite)
     data = loc.load_readings(Path(readings))
-    res = loc.locate(data.readings, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz, n_sources=sources,
-                     fit_elevation=fit_elevation, elevation_deg=elevation)
+    res = loc.locate(
+        data.readings,
+        freq_hz=data.freq_hz,
+        bandwidth_hz=data.bandwidth_hz,
+        n_sources=sources,
+        fit_elevation=fit_elevation,
+        elevation_deg=elevation,
+    )
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
     if plot is not None:
         from snrgain import plots
@@ -62,12 +78,18 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     lines = [("fit: " if res.ok else "FIT FAILED: ") + res.message]
     for i, s in enumerate(res.sources):
         amb = f" (or {(s.bearing_deg + 180) % 360:.0f} deg)" if s.ambiguous_180 else ""
-        lines.append(f"  source {i + 1}: bearing {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg{amb}, "
-                     f"elevation {s.elevation_deg:.0f} deg, Fa {s.fa_db:.1f} dB on P.372's reference monopole")
-    lines.append(f"  diffuse background: Fa {res.background_fa_db:.1f} dB; residual rms {res.residual_rms_db:.2f} dB "
-                 f"over {len(res.readings_dbm)} readings")
+        lines.append(
+            f"  source {i + 1}: bearing {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg{amb}, "
+            f"elevation {s.elevation_deg:.0f} deg, Fa {s.fa_db:.1f} dB on P.372's reference monopole"
+        )
+    lines.append(
+        f"  diffuse background: Fa {res.background_fa_db:.1f} dB; residual rms {res.residual_rms_db:.2f} dB "
+        f"over {len(res.readings_dbm)} readings"
+    )
     for entry in out["readings"]:
-        lines.append(f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm")
+        lines.append(
+            f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm"
+        )
     if plot:
         lines.append(f"  wrote {plot}")
     if scenario:

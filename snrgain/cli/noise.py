@@ -18,18 +18,37 @@ from snrgain.constants import MAN_MADE_CHOICES
 
 
 @click.command("noise")
-@click.option("--lat", "lat", type=click.FloatRange(-90, 90), required=True, help="Site latitude [deg, north positive].")
-@click.option("--lon", "lon", type=click.FloatRange(-180, 360), required=True, help="Site longitude [deg, east positive].")
+@click.option(
+    "--lat", "lat", type=click.FloatRange(-90, 90), required=True, help="Site latitude [deg, north positive]."
+)
+@click.option(
+    "--lon", "lon", type=click.FloatRange(-180, 360), required=True, help="Site longitude [deg, east positive]."
+)
 @click.option("--month", type=click.IntRange(1, 12), required=True, help="Month, 1-12.")
 @click.option("--frequency", required=True, help="Frequency with its unit, e.g. '1.83 MHz'.")
-@click.option("--environment", type=click.Choice(MAN_MADE_CHOICES),
-              default="residential", show_default=True, help="Man-made noise category of ITU-R P.372.")
+@click.option(
+    "--environment",
+    type=click.Choice(MAN_MADE_CHOICES),
+    default="residential",
+    show_default=True,
+    help="Man-made noise category of ITU-R P.372.",
+)
 @click.option("--galactic/--no-galactic", default=True, show_default=True, help="Include galactic noise.")
-@click.option("--hour", type=click.FloatRange(0, 24, max_open=True), default=4.0, show_default=True,
-              help="UTC hour for the direction distribution of atmospheric noise.")
+@click.option(
+    "--hour",
+    type=click.FloatRange(0, 24, max_open=True),
+    default=4.0,
+    show_default=True,
+    help="UTC hour for the direction distribution of atmospheric noise.",
+)
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
-@click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=str), default=None,
-              help="Write to this file (JSON) instead of standard output.")
+@click.option(
+    "--output",
+    "-o",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Write to this file (JSON) instead of standard output.",
+)
 @overwrite_option
 @p372_dir_option
 @handle_errors
@@ -54,8 +73,9 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
         f = check_frequency_hz(parse_quantity(frequency, "frequency"))
     except ValueError as exc:
         raise ValueError(f"--frequency: {exc}") from None
-    data = noise_over_day(lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic,
-                          data_dir=data_dir, hour=hour)
+    data = noise_over_day(
+        lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
+    )
     if output is not None:
         write_output(output, json_text(data), overwrite=overwrite)
         return
@@ -72,9 +92,11 @@ def _print_table(data):
     console = Console()
     if not console.is_terminal:
         console = Console(width=120)
-    t = Table(title=f"Noise Fa (dB above kT0b) at {data['latitude_deg']:.2f}, {data['longitude_deg']:.2f}, "
-                    f"month {data['month']}, {data['frequency_hz'] / 1e6:g} MHz (median, +upper/-lower decile)",
-              title_justify="left")
+    t = Table(
+        title=f"Noise Fa (dB above kT0b) at {data['latitude_deg']:.2f}, {data['longitude_deg']:.2f}, "
+        f"month {data['month']}, {data['frequency_hz'] / 1e6:g} MHz (median, +upper/-lower decile)",
+        title_justify="left",
+    )
     t.add_column("UTC", justify="right")
     names = list(data["components"])
     for n in names:
@@ -89,23 +111,37 @@ def _print_table(data):
         return f"{fa:.1f} +{c['du_db'][i]:.1f}/-{c['dl_db'][i]:.1f}"
 
     for i, h in enumerate(data["utc_hours"]):
-        t.add_row(f"{h:02.0f}", *[cell(data["components"][n], i) for n in names], cell(data["total"], i),
-                  f"{data['median_power_sum_fa_db'][i]:.1f}")
+        t.add_row(
+            f"{h:02.0f}",
+            *[cell(data["components"][n], i) for n in names],
+            cell(data["total"], i),
+            f"{data['median_power_sum_fa_db'][i]:.1f}",
+        )
     console.print(t)
-    console.print("The P.372 Section 8 total treats each component as log-normal; with decile deviations above "
-                  "about 12 dB its median can fall below the strongest component's (the Recommendation's variant "
-                  "for such deviations is not implemented). The power sum of the medians is what the SNR "
-                  "calculation uses.", style="dim")
+    console.print(
+        "The P.372 Section 8 total treats each component as log-normal; with decile deviations above "
+        "about 12 dB its median can fall below the strongest component's (the Recommendation's variant "
+        "for such deviations is not implemented). The power sum of the medians is what the SNR "
+        "calculation uses.",
+        style="dim",
+    )
     d = data["directions"]
-    s = Table(title=f"Atmospheric noise arrival at {d['utc_hour']:g} UTC (storm model): share of power by bearing",
-              title_justify="left")
+    s = Table(
+        title=f"Atmospheric noise arrival at {d['utc_hour']:g} UTC (storm model): share of power by bearing",
+        title_justify="left",
+    )
     s.add_column("bearing", justify="right")
     s.add_column("share %", justify="right")
     s.add_column("bar")
     s.add_column("mean elevation", justify="right")
     for sec in d["sectors"]:
         el = "-" if sec["mean_elevation_deg"] is None else f"{sec['mean_elevation_deg']:.0f} deg"
-        s.add_row(f"{sec['bearing_deg']:.0f} deg", f"{sec['share_percent']:.1f}", "#" * int(round(sec["share_percent"] / 2)), el)
+        s.add_row(
+            f"{sec['bearing_deg']:.0f} deg",
+            f"{sec['share_percent']:.1f}",
+            "#" * int(round(sec["share_percent"] / 2)),
+            el,
+        )
     console.print(s)
     bands = ", ".join(f"{b['from_deg']}-{b['to_deg']} deg: {b['share_percent']:.0f} %" for b in d["elevation_bands"])
     console.print(f"By elevation: {bands}")

@@ -24,7 +24,9 @@ EXIT_FAILURE = 1
 scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=Path))
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
 nside_option = click.option(
-    "--nside", type=click.Choice(["8", "16", "32", "64", "128"]), default=None,
+    "--nside",
+    type=click.Choice(["8", "16", "32", "64", "128"]),
+    default=None,
     help="HEALPix resolution of the sky (overrides the scenario; default 32, about 1.8 deg).",
 )
 
@@ -62,22 +64,35 @@ def handle_errors(fn):
 
 
 p372_dir_option = click.option(
-    "--p372-dir", type=click.Path(file_okay=False, path_type=str), default=None,
+    "--p372-dir",
+    type=click.Path(file_okay=False, path_type=str),
+    default=None,
     help="Folder of the ITU-R P.372 coefficient files COEFF01W.txt ... COEFF12W.txt, used when neither the "
-         "scenario key noise.atmospheric.data_dir nor the environment variable SNRGAIN_P372_DIR names one.",
+    "scenario key noise.atmospheric.data_dir nor the environment variable SNRGAIN_P372_DIR names one.",
 )
+
 
 def scenario_copy_options(what: str):
     """--scenario, --write, --overwrite and --format shared by the commands that read readings files."""
 
     def deco(fn):
-        fn = click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table",
-                          show_default=True)(fn)
+        fn = click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)(
+            fn
+        )
         fn = overwrite_option(fn)
-        fn = click.option("--write", "write_to", type=click.Path(dir_okay=False, path_type=str), default=None,
-                          help="Where to write that copy (with --scenario).")(fn)
-        fn = click.option("--scenario", type=click.Path(exists=True, dir_okay=False, path_type=str), default=None,
-                          help=f"A scenario to copy with {what}.")(fn)
+        fn = click.option(
+            "--write",
+            "write_to",
+            type=click.Path(dir_okay=False, path_type=str),
+            default=None,
+            help="Where to write that copy (with --scenario).",
+        )(fn)
+        fn = click.option(
+            "--scenario",
+            type=click.Path(exists=True, dir_okay=False, path_type=str),
+            default=None,
+            help=f"A scenario to copy with {what}.",
+        )(fn)
         return fn
 
     return deco

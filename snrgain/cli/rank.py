@@ -17,11 +17,22 @@ from snrgain.cli.options import (
 
 @click.command("rank")
 @scenario_argument
-@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv"]), default="table", show_default=True,
-              help="table: ranked table for the terminal; json: everything, units in the keys; csv: one row per "
-                   "antenna, target, month and hour.")
-@click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=str), default=None,
-              help="Write to this file instead of standard output (whole or not at all).")
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["table", "json", "csv"]),
+    default="table",
+    show_default=True,
+    help="table: ranked table for the terminal; json: everything, units in the keys; csv: one row per "
+    "antenna, target, month and hour.",
+)
+@click.option(
+    "--output",
+    "-o",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Write to this file instead of standard output (whole or not at all).",
+)
 @overwrite_option
 @nside_option
 @p372_dir_option

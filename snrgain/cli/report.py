@@ -19,8 +19,13 @@ from snrgain.cli.options import (
 
 @click.command("report")
 @scenario_argument
-@click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=str), required=True,
-              help="The HTML file to write (whole or not at all).")
+@click.option(
+    "--output",
+    "-o",
+    type=click.Path(dir_okay=False, path_type=str),
+    required=True,
+    help="The HTML file to write (whole or not at all).",
+)
 @overwrite_option
 @nside_option
 @p372_dir_option
@@ -32,6 +37,7 @@ def report(scenario, output, overwrite, nside, p372_dir):
     """
     from snrgain import report as rep
     from snrgain.evaluate import evaluate
+
     check_output(output, overwrite=overwrite)
     results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     for w in results.warnings:
@@ -41,11 +47,20 @@ def report(scenario, output, overwrite, nside, p372_dir):
 
 @click.command("figures")
 @scenario_argument
-@click.option("--dir", "out_dir", type=click.Path(file_okay=False, path_type=str), required=True,
-              help="Folder to write the figures into (it must exist).")
+@click.option(
+    "--dir",
+    "out_dir",
+    type=click.Path(file_okay=False, path_type=str),
+    required=True,
+    help="Folder to write the figures into (it must exist).",
+)
 @click.option("--format", "fmt", type=click.Choice(["png", "svg"]), default="png", show_default=True)
-@click.option("--only", type=click.Choice(["azimuth", "elevation", "sky", "hours", "ranking", "plan"]), multiple=True,
-              help="Only these figures (repeatable); default all that apply.")
+@click.option(
+    "--only",
+    type=click.Choice(["azimuth", "elevation", "sky", "hours", "ranking", "plan"]),
+    multiple=True,
+    help="Only these figures (repeatable); default all that apply.",
+)
 @overwrite_option
 @nside_option
 @p372_dir_option

@@ -9,27 +9,53 @@ from snrgain.constants import WIRE_FAMILIES
 
 
 @click.command("wire")
-@click.option("--family", type=click.Choice(WIRE_FAMILIES), default="beverage",
-              show_default=True, help="Kind of long wire.")
+@click.option(
+    "--family", type=click.Choice(WIRE_FAMILIES), default="beverage", show_default=True, help="Kind of long wire."
+)
 @click.option("--frequency", required=True, help="Frequency with unit, e.g. '1.83 MHz'.")
 @click.option("--length", required=True, help="Wire length with unit, e.g. '800 ft'.")
-@click.option("--height", default=None, help="Height of the wire with unit (default 2.5 m; for bog the axis height above "
-                                             "the soil, default 2 cm).")
+@click.option(
+    "--height",
+    default=None,
+    help="Height of the wire with unit (default 2.5 m; for bog the axis height above the soil, default 2 cm).",
+)
 @click.option("--gauge", type=click.IntRange(-3, 40), default=None, help="Wire gauge, AWG (default 14).")
 @click.option("--diameter", default=None, help="Wire diameter with unit instead of --gauge, e.g. '1.6 mm'.")
 @click.option("--ground", default="average", show_default=True, help="Named ground (see README) or 'perfect'.")
 @click.option("--conductivity", default=None, help="Ground conductivity instead of --ground, e.g. '5 mS/m'.")
 @click.option("--permittivity", type=click.FloatRange(1, 100), default=None, help="Ground relative permittivity.")
-@click.option("--elevation", type=click.FloatRange(0, 90), default=20.0, show_default=True,
-              help="Target elevation [deg] along the wire's bearing, for RDF and the length rule.")
+@click.option(
+    "--elevation",
+    type=click.FloatRange(0, 90),
+    default=20.0,
+    show_default=True,
+    help="Target elevation [deg] along the wire's bearing, for RDF and the length rule.",
+)
 @click.option("--termination", default="auto", show_default=True, help="Termination resistor [ohm] or 'auto' (|Z0|).")
 @click.option("--feed-ground", default="20 ohm", show_default=True, help="Feed ground-rod resistance.")
 @click.option("--far-ground", default="20 ohm", show_default=True, help="Far ground-rod resistance.")
-@click.option("--coax", type=click.Choice(["50", "75"]), default="75", show_default=True, help="Feed-line impedance [ohm].")
+@click.option(
+    "--coax", type=click.Choice(["50", "75"]), default="75", show_default=True, help="Feed-line impedance [ohm]."
+)
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @handle_errors
-def wire(family, frequency, length, height, gauge, diameter, ground, conductivity, permittivity, elevation,
-         termination, feed_ground, far_ground, coax, fmt):
+def wire(
+    family,
+    frequency,
+    length,
+    height,
+    gauge,
+    diameter,
+    ground,
+    conductivity,
+    permittivity,
+    elevation,
+    termination,
+    feed_ground,
+    far_ground,
+    coax,
+    fmt,
+):
     """Design figures for a long receiving wire at one frequency.
 
     Prints the line's velocity factor, attenuation and Z0; the traditional
@@ -44,9 +70,20 @@ def wire(family, frequency, length, height, gauge, diameter, ground, conductivit
     from snrgain.units import parse_quantity
 
     f = parse_quantity(frequency, "frequency")
-    spec = wiredesign.wire_spec(family, length=length, height=height, termination=termination,
-                                feed_ground=feed_ground, far_ground=far_ground, gauge=gauge, diameter=diameter,
-                                ground=ground, conductivity=conductivity, permittivity=permittivity, coax=int(coax))
+    spec = wiredesign.wire_spec(
+        family,
+        length=length,
+        height=height,
+        termination=termination,
+        feed_ground=feed_ground,
+        far_ground=far_ground,
+        gauge=gauge,
+        diameter=diameter,
+        ground=ground,
+        conductivity=conductivity,
+        permittivity=permittivity,
+        coax=int(coax),
+    )
     out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
     if fmt == "json":
         emit_json(out)
@@ -58,7 +95,8 @@ def wire(family, frequency, length, height, gauge, diameter, ground, conductivit
     lines_out = [
         f"{family}: {length_m:.1f} m ({length_m * ft:.0f} ft) at {ant['height_m']:g} m over "
         f"{ant['ground']} ground, {f / 1e6:g} MHz",
-        f"  line: velocity factor {ln['velocity_factor']:.3f}, attenuation {ln['attenuation_db_per_100m']:.2f} dB/100 m "
+        f"  line: velocity factor {ln['velocity_factor']:.3f}, "
+        f"attenuation {ln['attenuation_db_per_100m']:.2f} dB/100 m "
         f"({ln['attenuation_db_per_100ft']:.2f} dB/100 ft), Z0 {z0.real:.0f}{z0.imag:+.0f}j ohm (|Z0| {abs(z0):.0f})",
         f"  length: rule of thumb lambda/(4(1/k - cos {elevation:g} deg)) = {rule_m:.0f} m "
         f"({rule_m * ft:.0f} ft); model's best for RDF = {best_m:.0f} m "
@@ -67,15 +105,18 @@ def wire(family, frequency, length, height, gauge, diameter, ground, conductivit
         f"front-to-back {out['front_to_back_db']:.1f} dB at {elevation:g} deg",
     ]
     if "textbook_termination_ohm" in out:
-        lines_out.append(f"  termination: |Z0| less the far rod = {out['textbook_termination_ohm']:.0f} ohm; best RDF "
-                         f"{out['best_rdf_termination_ohm']:.0f} ohm; best front-to-back "
-                         f"{out['best_front_to_back_termination_ohm']:.0f} ohm")
+        lines_out.append(
+            f"  termination: |Z0| less the far rod = {out['textbook_termination_ohm']:.0f} ohm; best RDF "
+            f"{out['best_rdf_termination_ohm']:.0f} ohm; best front-to-back "
+            f"{out['best_front_to_back_termination_ohm']:.0f} ohm"
+        )
     zin = out["feed_point_impedance_ohm"]
     exact = out["exact_turns_ratio"]
     lines_out += [
         f"  feed point {zin[0]:.0f}{zin[1]:+.0f}j ohm; to {coax} ohm coax: turns ratio {exact:.2f} "
-        f"(impedance {exact ** 2:.1f}:1); practical {out['practical_turns_ratio']:g}:1 turns loses "
+        f"(impedance {exact**2:.1f}:1); practical {out['practical_turns_ratio']:g}:1 turns loses "
         f"{out['practical_mismatch_loss_db']:.2f} dB",
-        "", out["safety"],
+        "",
+        out["safety"],
     ]
     click.echo("\n".join(lines_out))

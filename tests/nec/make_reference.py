@@ -78,24 +78,48 @@ PAIR_RADIUS_M = 0.01
 def auto_termination(f_mhz, length, height, eps, sigma):
     from snrgain.antennas import from_spec
 
-    ant = from_spec({"family": "beverage", "length": f"{length} m", "height": f"{height} m",
-                     "diameter": f"{2 * RADIUS_M} m", "feed_ground": 0, "far_ground": 0,
-                     "ground": {"conductivity": f"{sigma} S/m", "permittivity": eps}})
+    ant = from_spec(
+        {
+            "family": "beverage",
+            "length": f"{length} m",
+            "height": f"{height} m",
+            "diameter": f"{2 * RADIUS_M} m",
+            "feed_ground": 0,
+            "far_ground": 0,
+            "ground": {"conductivity": f"{sigma} S/m", "permittivity": eps},
+        }
+    )
     return ant.termination_ohm(f_mhz * 1e6)
 
 
 def one(name, f, length, height, eps, sigma, r_term, work):
-    deck = beverage_deck(freq_mhz=f, length_m=length, height_m=height, radius_m=RADIUS_M, permittivity=eps,
-                         conductivity_s_per_m=sigma, termination_ohm=r_term)
+    deck = beverage_deck(
+        freq_mhz=f,
+        length_m=length,
+        height_m=height,
+        radius_m=RADIUS_M,
+        permittivity=eps,
+        conductivity_s_per_m=sigma,
+        termination_ohm=r_term,
+    )
     (HERE / "cases").mkdir(exist_ok=True)
     (HERE / "cases" / f"{name}.nec").write_text(deck)
     out = parse_output(run_nec2c(deck, work, name))
     m = metrics(out["theta_deg"], out["phi_deg"], out["gain_dbi"])
     z = out["feed_impedance_ohm"]
-    return {"name": name, "freq_mhz": f, "length_m": length, "height_m": height, "permittivity": eps,
-            "conductivity_s_per_m": sigma, "radius_m": RADIUS_M, "termination_ohm": round(r_term, 3),
-            "deck": f"cases/{name}.nec", **{k: round(float(v), 3) for k, v in m.items()},
-            "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)]}
+    return {
+        "name": name,
+        "freq_mhz": f,
+        "length_m": length,
+        "height_m": height,
+        "permittivity": eps,
+        "conductivity_s_per_m": sigma,
+        "radius_m": RADIUS_M,
+        "termination_ohm": round(r_term, 3),
+        "deck": f"cases/{name}.nec",
+        **{k: round(float(v), 3) for k, v in m.items()},
+        "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)],
+    }
 
 
 def _run(name, deck, work, forward_phi, extra):
@@ -104,38 +128,95 @@ def _run(name, deck, work, forward_phi, extra):
     out = parse_output(run_nec2c(deck, work, name))
     m = metrics_toward(out["theta_deg"], out["phi_deg"], out["gain_dbi"], forward_phi_deg=forward_phi)
     z = out["feed_impedance_ohm"]
-    return {"name": name, **extra, "deck": f"cases/{name}.nec", **{k: round(float(v), 3) for k, v in m.items()},
-            "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)]}
+    return {
+        "name": name,
+        **extra,
+        "deck": f"cases/{name}.nec",
+        **{k: round(float(v), 3) for k, v in m.items()},
+        "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)],
+    }
 
 
 def main():
-    ref = {"engine": "nec2c (NEC-2 in C, Debian package nec2c)", "elevation_deg": 20.0, "cases": [], "sweep": [],
-           "loops": [], "pairs": []}
+    ref = {
+        "engine": "nec2c (NEC-2 in C, Debian package nec2c)",
+        "elevation_deg": 20.0,
+        "cases": [],
+        "sweep": [],
+        "loops": [],
+        "pairs": [],
+    }
     with tempfile.TemporaryDirectory() as tmp:
         work = Path(tmp)
         for name, f, length, height, eps, sigma in CASES:
-            ref["cases"].append(one(name, f, length, height, eps, sigma,
-                                    auto_termination(f, length, height, eps, sigma), work))
+            ref["cases"].append(
+                one(name, f, length, height, eps, sigma, auto_termination(f, length, height, eps, sigma), work)
+            )
         name, values = SWEEP
         _, f, length, height, eps, sigma = next(c for c in CASES if c[0] == name)
         for r in values:
             ref["sweep"].append(one(f"{name}-r{int(r)}", f, length, height, eps, sigma, r, work))
         for name, f, w, h, bottom, r_term, eps, sigma in LOOP_CASES:
-            deck = loop_deck(freq_mhz=f, width_m=w, bottom_m=bottom, top_m=bottom + h, radius_m=RADIUS_M,
-                             permittivity=eps, conductivity_s_per_m=sigma, termination_ohm=r_term)
-            ref["loops"].append(_run(name, deck, work, 180.0, {
-                "freq_mhz": f, "width_m": w, "loop_height_m": h, "height_m": bottom, "termination_ohm": r_term,
-                "permittivity": eps, "conductivity_s_per_m": sigma, "radius_m": RADIUS_M}))
+            deck = loop_deck(
+                freq_mhz=f,
+                width_m=w,
+                bottom_m=bottom,
+                top_m=bottom + h,
+                radius_m=RADIUS_M,
+                permittivity=eps,
+                conductivity_s_per_m=sigma,
+                termination_ohm=r_term,
+            )
+            ref["loops"].append(
+                _run(
+                    name,
+                    deck,
+                    work,
+                    180.0,
+                    {
+                        "freq_mhz": f,
+                        "width_m": w,
+                        "loop_height_m": h,
+                        "height_m": bottom,
+                        "termination_ohm": r_term,
+                        "permittivity": eps,
+                        "conductivity_s_per_m": sigma,
+                        "radius_m": RADIUS_M,
+                    },
+                )
+            )
         for name, f, h, spacing, eps, sigma in PAIR_CASES:
-            deck = vertical_pair_deck(freq_mhz=f, height_m=h, spacing_m=spacing, radius_m=PAIR_RADIUS_M,
-                                      permittivity=eps, conductivity_s_per_m=sigma, load_ohm=PAIR_LOAD_OHM,
-                                      phase_deg=-90.0)
-            ref["pairs"].append(_run(name, deck, work, 0.0, {
-                "freq_mhz": f, "height_m": h, "spacing_m": spacing, "permittivity": eps,
-                "conductivity_s_per_m": sigma, "load_ohm": PAIR_LOAD_OHM}))
+            deck = vertical_pair_deck(
+                freq_mhz=f,
+                height_m=h,
+                spacing_m=spacing,
+                radius_m=PAIR_RADIUS_M,
+                permittivity=eps,
+                conductivity_s_per_m=sigma,
+                load_ohm=PAIR_LOAD_OHM,
+                phase_deg=-90.0,
+            )
+            ref["pairs"].append(
+                _run(
+                    name,
+                    deck,
+                    work,
+                    0.0,
+                    {
+                        "freq_mhz": f,
+                        "height_m": h,
+                        "spacing_m": spacing,
+                        "permittivity": eps,
+                        "conductivity_s_per_m": sigma,
+                        "load_ohm": PAIR_LOAD_OHM,
+                    },
+                )
+            )
     (HERE / "reference.json").write_text(json.dumps(ref, indent=1) + "\n")
-    print(f"wrote {len(ref['cases'])} wire cases, {len(ref['sweep'])} sweep points, {len(ref['loops'])} loops and "
-          f"{len(ref['pairs'])} vertical pairs to {HERE / 'reference.json'}")
+    print(
+        f"wrote {len(ref['cases'])} wire cases, {len(ref['sweep'])} sweep points, {len(ref['loops'])} loops and "
+        f"{len(ref['pairs'])} vertical pairs to {HERE / 'reference.json'}"
+    )
 
 
 if __name__ == "__main__":

@@ -21,8 +21,18 @@ import numpy as np
 C_MHZ_M = 299.792458
 
 
-def beverage_deck(*, freq_mhz, length_m, height_m, radius_m, permittivity, conductivity_s_per_m, termination_ohm,
-                  ground="sommerfeld", segments_per_wavelength=40) -> str:
+def beverage_deck(
+    *,
+    freq_mhz,
+    length_m,
+    height_m,
+    radius_m,
+    permittivity,
+    conductivity_s_per_m,
+    termination_ohm,
+    ground="sommerfeld",
+    segments_per_wavelength=40,
+) -> str:
     """A NEC-2 deck for a terminated wire with down-leads; ground 'sommerfeld' (GN 2) or 'perfect' (GN 1)."""
     lam = C_MHZ_M / freq_mhz
     ns = int(np.ceil(length_m / (lam / segments_per_wavelength)))
@@ -67,9 +77,15 @@ def parse_output(text: str) -> dict:
                 continue
             rows.append((theta, phi, total))
     a = np.array(rows)
-    m = re.search(r"ANTENNA INPUT PARAMETERS.*?\n.*?\n.*?\n\s*\d+\s+\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(\S+)", text, re.S)
-    return {"theta_deg": a[:, 0], "phi_deg": a[:, 1], "gain_dbi": a[:, 2],
-            "feed_impedance_ohm": complex(float(m.group(1)), float(m.group(2)))}
+    m = re.search(
+        r"ANTENNA INPUT PARAMETERS.*?\n.*?\n.*?\n\s*\d+\s+\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(\S+)", text, re.S
+    )
+    return {
+        "theta_deg": a[:, 0],
+        "phi_deg": a[:, 1],
+        "gain_dbi": a[:, 2],
+        "feed_impedance_ohm": complex(float(m.group(1)), float(m.group(2))),
+    }
 
 
 def metrics(theta_deg, phi_deg, gain_dbi, *, elevation_deg=20.0) -> dict:
@@ -77,14 +93,25 @@ def metrics(theta_deg, phi_deg, gain_dbi, *, elevation_deg=20.0) -> dict:
     return metrics_toward(theta_deg, phi_deg, gain_dbi, forward_phi_deg=0.0, elevation_deg=elevation_deg)
 
 
-def loop_deck(*, freq_mhz, width_m, bottom_m, top_m, radius_m, permittivity, conductivity_s_per_m, termination_ohm,
-              segments_per_side=9) -> str:
+def loop_deck(
+    *,
+    freq_mhz,
+    width_m,
+    bottom_m,
+    top_m,
+    radius_m,
+    permittivity,
+    conductivity_s_per_m,
+    termination_ohm,
+    segments_per_side=9,
+) -> str:
     """A rectangular loop in the x-z plane, fed in the middle of its side at x = 0, terminated mid-side at x = w."""
     n = segments_per_side if segments_per_side % 2 else segments_per_side + 1
     mid = n // 2 + 1
     w, z1, z2 = width_m, bottom_m, top_m
     lines = [
-        "CM terminated loop (snrgain validation case)", "CE",
+        "CM terminated loop (snrgain validation case)",
+        "CE",
         f"GW 1 {n} 0 0 {z1:g} 0 0 {z2:g} {radius_m:g}",
         f"GW 2 {n} 0 0 {z2:g} {w:g} 0 {z2:g} {radius_m:g}",
         f"GW 3 {n} {w:g} 0 {z2:g} {w:g} 0 {z1:g} {radius_m:g}",
@@ -100,8 +127,9 @@ def loop_deck(*, freq_mhz, width_m, bottom_m, top_m, radius_m, permittivity, con
     return "\n".join(lines) + "\n"
 
 
-def vertical_pair_deck(*, freq_mhz, height_m, spacing_m, radius_m, permittivity, conductivity_s_per_m, load_ohm,
-                       phase_deg, segments=6) -> str:
+def vertical_pair_deck(
+    *, freq_mhz, height_m, spacing_m, radius_m, permittivity, conductivity_s_per_m, load_ohm, phase_deg, segments=6
+) -> str:
     """Two verticals on the x axis (x = 0 and x = spacing), each fed at its base through a series load.
 
     The element at x = spacing is driven with phase ``phase_deg`` relative to the one at x = 0; the loads
@@ -109,7 +137,8 @@ def vertical_pair_deck(*, freq_mhz, height_m, spacing_m, radius_m, permittivity,
     """
     ph = np.radians(phase_deg)
     lines = [
-        "CM two phased verticals (snrgain validation case)", "CE",
+        "CM two phased verticals (snrgain validation case)",
+        "CE",
         f"GW 1 {segments} 0 0 0 0 0 {height_m:g} {radius_m:g}",
         f"GW 2 {segments} {spacing_m:g} 0 0 {spacing_m:g} 0 {height_m:g} {radius_m:g}",
         "GE 1",
