@@ -201,7 +201,9 @@ def field_along_wire(w: PlaneWave, height_m: float) -> tuple[np.ndarray, np.ndar
 
 def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
     """EMF of a vertical conductor from z_low to z_high: cos(Delta) integral [e^{jkzs} + R_v e^{-jkzs}] dz."""
-    seg = safe_expint(1j * w.k * w.s, z_high_m) - safe_expint(1j * w.k * w.s, z_low_m)
+    seg = safe_expint(1j * w.k * w.s, z_high_m)
+    if z_low_m != 0.0:
+        seg = seg - safe_expint(1j * w.k * w.s, z_low_m)
     return np.cos(w.el_c) * (seg + w.r_v * np.conj(seg))
 
 
@@ -221,7 +223,8 @@ def line_currents(
 
     The distributed EMF per metre is ``drive * exp(+j k along x)``; ``v_feed`` and ``v_far`` are lumped EMFs at
     the two ends (counted around one loop: up at the feed, down at the far end).  ``z_far`` None is an open far
-    end.  Returns (I_F, I_R); I_R is None unless ``far_current``.
+    end.  ``drive``, ``v_feed`` and ``v_far`` may carry leading axes (one per polarization, say) that broadcast
+    against the directions.  Returns (I_F, I_R); I_R is None unless ``far_current``.
     """
     g, z0, L = line.gamma, line.z0, length_m
     jkc = 1j * w.k * w.along
@@ -354,23 +357,20 @@ class LongWire(TransformerFeed, Antenna):
         """Feed and far-end currents [A] per unit incident field: {"v": (I_F, I_R), "h": (I_F, I_R)}, and the wave."""
         w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.bearing_rad, ground=self.ground)
         a_v, a_h, lead = self._excitation(w)
-        zf = self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm
-        zr = self.far_load_ohm(freq_hz)
         no_lead = np.zeros_like(lead)
-        out = {}
-        for pol, drive, v_lead in (("v", a_v, lead), ("h", a_h, no_lead)):
-            out[pol] = line_currents(
-                w,
-                line=self.line(freq_hz),
-                length_m=self.length_m,
-                z_feed=zf,
-                z_far=zr,
-                drive=drive,
-                v_feed=v_lead,
-                v_far=v_lead if self.has_far_lead else no_lead,
-                far_current=far_current,
-            )
-        return out, w
+        # Both polarizations in one pass (a leading axis): the line's integrals are shared.
+        i_f, i_r = line_currents(
+            w,
+            line=self.line(freq_hz),
+            length_m=self.length_m,
+            z_feed=self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm,
+            z_far=self.far_load_ohm(freq_hz),
+            drive=np.stack([a_v, a_h]),
+            v_feed=np.stack([lead, no_lead]),
+            v_far=np.stack([lead if self.has_far_lead else no_lead, no_lead]),
+            far_current=far_current,
+        )
+        return {pol: (i_f[n], None if i_r is None else i_r[n]) for n, pol in enumerate(("v", "h"))}, w
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad)

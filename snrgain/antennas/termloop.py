@@ -164,20 +164,17 @@ class TerminatedLoop(TransformerFeed, Antenna):
         bottom_v, bottom_h = field_along_wire(w, self.z_bottom)
         side = vertical_emf(w, self.z_bottom, self.z_top)  # each vertical side, bottom wire to top wire
         load = self._load_ohm(freq_hz, termination_ohm)
-        out = []
-        for drive, v_side in ((top_v - bottom_v, side), (top_h - bottom_h, np.zeros_like(side))):
-            i_f, _ = line_currents(
-                w,
-                line=self.line(freq_hz),
-                length_m=self.width_m,
-                z_feed=load,
-                z_far=termination_ohm,
-                drive=drive,
-                v_feed=v_side,
-                v_far=v_side,
-            )
-            out.append(port_response(freq_hz, i_f, load_ohm=load, elevation_rad=w.el))
-        return tuple(out)
+        i_f, _ = line_currents(
+            w,
+            line=self.line(freq_hz),
+            length_m=self.width_m,
+            z_feed=load,
+            z_far=termination_ohm,
+            drive=np.stack([top_v - bottom_v, top_h - bottom_h]),
+            v_feed=np.stack([side, np.zeros_like(side)]),
+            v_far=np.stack([side, np.zeros_like(side)]),
+        )
+        return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in i_f)
 
     def _gain(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm):
         ev, eh = self._response(freq_hz, azimuth_rad, elevation_rad, termination_ohm)
