@@ -14,6 +14,17 @@ from snrgain.antennas.base import (
     from_spec,
     register,
     validate_spec,
+    variant,
 )
 
-__all__ = ["FAMILIES", "Antenna", "AntennaParams", "SpecError", "from_si", "from_spec", "register", "validate_spec"]
+__all__ = [
+    "FAMILIES",
+    "Antenna",
+    "AntennaParams",
+    "SpecError",
+    "from_si",
+    "from_spec",
+    "register",
+    "validate_spec",
+    "variant",
+]
