@@ -29,8 +29,7 @@ from pathlib import Path
 import numpy as np
 from scipy.optimize import least_squares
 
-from noisemodels import p372, sky
-from noisemodels.sphere import upper_hemisphere
+from noisemodels import p372
 from snrgain.readings import read_toml
 from snrgain.receiver import power_dbm
 from snrgain.units import parse_power_dbm, parse_quantity
@@ -191,6 +190,9 @@ def locate(
             f"{'bearing, elevation and level' if fit_elevation else 'bearing and level'} per source); "
             f"take at least {n_unknown + 1}, e.g. a loop rotated in 30 deg steps"
         )
+    from noisemodels import sky
+    from noisemodels.sphere import upper_hemisphere
+
     levels = np.array([r.level_dbm for r in readings], dtype=float)
     if not np.all(np.isfinite(levels)):
         raise LocateError("every reading needs a finite level")

@@ -24,9 +24,9 @@ from snrgain import snr
 from snrgain.antennas import FAMILIES, from_si, from_spec
 from snrgain.antennas.base import variant
 from snrgain.cli.main import cli
-from snrgain.evaluate import antenna_results, notices
 from snrgain.files import OutputExistsError, write_atomic
 from snrgain.messages import notice_text
+from snrgain.pipeline import antenna_results, notices
 from snrgain.scenario import load
 from snrgain.units import QuantityError, parse_attenuation_db_per_100m, parse_quantity
 from tests.conftest import MINIMAL, P372_DIR, REPO, SCENARIOS
@@ -232,7 +232,7 @@ def test_nothing_downstream_reads_the_scenario_model():
 
 
 def test_evaluate_is_a_few_named_steps():
-    tree = ast.parse((REPO / "snrgain" / "evaluate.py").read_text(encoding="utf-8"))
+    tree = ast.parse((REPO / "snrgain" / "pipeline.py").read_text(encoding="utf-8"))
     fn = next(n for n in tree.body if isinstance(n, ast.FunctionDef) and n.name == "evaluate")
     body_start = fn.body[1].lineno if isinstance(fn.body[0], ast.Expr) else fn.body[0].lineno  # after the docstring
     assert fn.end_lineno - body_start + 1 <= 40
@@ -427,3 +427,16 @@ def test_atomic_writer(tmp_path):
     with pytest.raises(RuntimeError):
         write_atomic(p, broken, overwrite=True)
     assert p.read_text() == "two" and sorted(x.name for x in tmp_path.iterdir()) == ["out.txt"]
+
+
+def test_help_and_check_leave_the_sky_machinery_and_matplotlib_unimported():
+    code = (
+        "import sys\n"
+        "from click.testing import CliRunner\n"
+        "from snrgain.cli.main import cli\n"
+        "assert CliRunner().invoke(cli, ['--help']).exit_code == 0\n"
+        f"assert CliRunner().invoke(cli, ['check', {str(SCENARIOS / 'alder-hollow.toml')!r}]).exit_code == 0\n"
+        "print(sorted(m for m in ('matplotlib', 'healpy') if m in sys.modules))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+    assert out == "[]"

@@ -46,7 +46,7 @@ def rank(scenario, fmt, output, overwrite, nside, p372_dir):
     targets (weighted) and hours.
     """
     from snrgain import output as out
-    from snrgain.evaluate import evaluate
+    from snrgain.pipeline import evaluate
 
     check_output(output, overwrite=overwrite)
     results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)

@@ -36,7 +36,7 @@ def report(scenario, output, overwrite, nside, p372_dir):
     The file has no scripts and loads nothing from the network; it prints cleanly.
     """
     from snrgain import report as rep
-    from snrgain.evaluate import evaluate
+    from snrgain.pipeline import evaluate
 
     check_output(output, overwrite=overwrite)
     results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
@@ -68,7 +68,7 @@ def report(scenario, output, overwrite, nside, p372_dir):
 def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
     from snrgain import plots
-    from snrgain.evaluate import evaluate
+    from snrgain.pipeline import evaluate
 
     d = Path(out_dir)
     if not d.is_dir():

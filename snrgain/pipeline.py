@@ -1,4 +1,4 @@
-"""evaluate(scenario) -> Results: the main job, as a short chain of named steps.
+"""evaluate(scenario) -> Results: the main job, as a short chain of named steps (``snrgain.evaluate``).
 
 1. :func:`snrgain.scenario.load`: validate the file and resolve it into SI objects (antennas, chains, targets,
    noise settings, receiver);
