@@ -9,6 +9,11 @@ SCENARIOS = REPO / "scenarios"
 SHARED = REPO.parent / "shared"
 P372_DIR = SHARED / "data" / "p372"
 
+needs_p372 = pytest.mark.skipif(
+    not (P372_DIR / "COEFF01W.txt").exists(), reason="ITU-R P.372 data not found at ../shared/data/p372"
+)
+"""Marks a test that reads the ITU-R P.372 coefficient files (they stay in ../shared, never in the repository)."""
+
 
 @pytest.fixture
 def demo_path():

@@ -29,7 +29,7 @@ from snrgain.messages import notice_text
 from snrgain.pipeline import antenna_results, notices
 from snrgain.scenario import load
 from snrgain.units import QuantityError, parse_attenuation_db_per_100m, parse_quantity
-from tests.conftest import MINIMAL, P372_DIR, REPO, SCENARIOS
+from tests.conftest import MINIMAL, P372_DIR, REPO, SCENARIOS, needs_p372
 
 # -- step 1: the resolved scenario ---------------------------------------------------------------------------
 
@@ -83,6 +83,7 @@ def test_sky_temperatures_need_maps():
 # -- step 3: the one sky builder ------------------------------------------------------------------------------
 
 
+@needs_p372
 def test_sky_builder_levels_follow_p372_and_agree_with_and_without_maps():
     settings = noisemod.NoiseSettings(
         man_made=noisemod.ManMadeNoise("rural"),
@@ -107,6 +108,7 @@ def test_sky_builder_levels_follow_p372_and_agree_with_and_without_maps():
     assert np.allclose(with_maps.median_power_sum_fa_db, power_sum)
 
 
+@needs_p372
 def test_noise_command_and_ranking_share_the_sky_builder():
     # The noise command's man-made and galactic levels are the ranking's for the same place and hour.
     # At 7.1 MHz galactic noise passes the night ionosphere (critical frequency 3 MHz), so its level is finite.
