@@ -151,6 +151,8 @@ class Chain:
 
     stages: tuple[Stage, ...]
     preamp_index: int | None = None
+    cable: str | None = None
+    """The feed line's cable type, where the chain names one (for phasing lines cut from the same cable)."""
 
     @property
     def noise_factor(self) -> float:
@@ -171,7 +173,7 @@ class Chain:
         st = list(self.stages)
         p = st[self.preamp_index]
         st[self.preamp_index] = Stage(p.name, 10 ** (gain_db / 10), p.noise_factor)
-        return Chain(tuple(st), self.preamp_index)
+        return Chain(tuple(st), self.preamp_index, self.cable)
 
     def preamp_gain_for_margin(self, antenna_temperature_k: float, margin_db: float) -> float | None:
         """The preamplifier gain [dB] that brings T_A / (T0 F) to ``margin_db``; None if unreachable.
@@ -231,7 +233,7 @@ def from_section(c, *, freq_hz: float, receiver_noise_figure_db: float) -> Chain
         preamp_index = 1 if c.preamp.position == "antenna" else len(stages)
         stages.insert(preamp_index, amp)
     stages.append(amplifier("receiver", gain_db=0.0, noise_figure_db=receiver_noise_figure_db))
-    return Chain(tuple(stages), preamp_index)
+    return Chain(tuple(stages), preamp_index, None if c.feedline is None else c.feedline.cable)
 
 
 def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
@@ -242,7 +244,7 @@ def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
     st = list(chain.stages)
     idx = len(st) - 1 if position == "receiver" else 1
     st.insert(idx, amplifier("suggested preamplifier", gain_db=0.0, noise_figure_db=SUGGESTED_PREAMP_NOISE_FIGURE_DB))
-    return Chain(tuple(st), idx)
+    return Chain(tuple(st), idx, chain.cable)
 
 
 @dataclass(frozen=True)

@@ -154,18 +154,54 @@ DEFAULT_GAUGE = 14
 """AWG gauge of a wire given neither gauge nor diameter (14 AWG, 1.63 mm: common for receiving wires)."""
 
 
-class GroundConstants(StrictModel):
-    """A ground given by its constants."""
+Conductivity = quantity("conductivity", ge=0.0, le=10.0)
+Permittivity = Annotated[float, Field(ge=1.0, le=100.0)]
 
-    conductivity: quantity("conductivity", ge=0.0, le=10.0) = Field(description="conductivity, e.g. '5 mS/m'")
-    permittivity: float = Field(ge=1.0, le=100.0, description="relative permittivity [-]")
+
+class GroundConstants(StrictModel):
+    """A ground given by its constants, each a value or a range [low, high] of its 10 % and 90 % points."""
+
+    conductivity: Conductivity | tuple[Conductivity, Conductivity] = Field(
+        description="conductivity, e.g. '5 mS/m', or a range ['2 mS/m', '12 mS/m']"
+    )
+    permittivity: Permittivity | tuple[Permittivity, Permittivity] = Field(
+        description="relative permittivity [-], or a range [8, 20]"
+    )
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        for name in ("conductivity", "permittivity"):
+            v = getattr(self, name)
+            if isinstance(v, tuple) and v[0] > v[1]:
+                raise ValueError(f"{name}: a range is [low, high]; got low above high ({v[0]:g} > {v[1]:g})")
+        if isinstance(self.conductivity, tuple) and self.conductivity[0] <= 0:
+            raise ValueError("conductivity: a range needs a low end above 0 S/m")
+        return self
+
+    @property
+    def nominal(self) -> groundmod.Ground:
+        """The ground at the middle of the ranges: the geometric mean of each (both taken as log-normal)."""
+        s, e = self.conductivity, self.permittivity
+        sigma = float(np.sqrt(s[0] * s[1])) if isinstance(s, tuple) else s
+        eps = float(np.sqrt(e[0] * e[1])) if isinstance(e, tuple) else e
+        return groundmod.Ground(sigma, eps)
+
+    @property
+    def spread(self) -> groundmod.GroundSpread | None:
+        """The ranges as a spread (a single value is a range of zero width), or None if neither is a range."""
+        s, e = self.conductivity, self.permittivity
+        if not isinstance(s, tuple) and not isinstance(e, tuple):
+            return None
+        s = s if isinstance(s, tuple) else (s, s)
+        e = e if isinstance(e, tuple) else (e, e)
+        return groundmod.GroundSpread(s, e)
 
 
 GroundInput = str | GroundConstants | InstanceOf[groundmod.Ground]
 
 
 def make_ground(spec: Any) -> groundmod.Ground | None:
-    """A Ground from a name, a GroundConstants, or a dict of constants; None for 'perfect'."""
+    """A Ground from a name, a GroundConstants (the middle of its ranges), or a dict; None for 'perfect'."""
     if spec is None:
         return groundmod.GROUND_TYPES["average"]
     if isinstance(spec, groundmod.Ground):
@@ -176,7 +212,16 @@ def make_ground(spec: Any) -> groundmod.Ground | None:
         return groundmod.ground_by_name(spec)
     if isinstance(spec, dict):
         spec = GroundConstants.model_validate(spec)
-    return groundmod.Ground(spec.conductivity, spec.permittivity)
+    return spec.nominal
+
+
+def ground_spread(spec: Any) -> groundmod.GroundSpread | None:
+    """How uncertain a ground is: a named class's documented spread, the ranges given, or None."""
+    if isinstance(spec, str):
+        return None if spec == groundmod.PERFECT else groundmod.class_spread(spec)
+    if isinstance(spec, dict):
+        spec = GroundConstants.model_validate(spec)
+    return spec.spread if isinstance(spec, GroundConstants) else None
 
 
 def ground_name_check(value):

@@ -68,6 +68,50 @@ GROUND_TYPES: dict[str, Ground] = {
 about 1-3 MHz; the others are the constants low-band modellers commonly use
 (average ground: 5 mS/m, eps_r 13)."""
 
+
+@dataclass(frozen=True)
+class GroundSpread:
+    """How uncertain a ground's constants are: the 10 % and 90 % points of its conductivity [S/m] and relative
+    permittivity [-], each taken as log-normal (its median is the geometric mean of the two points)."""
+
+    conductivity_s_per_m: tuple[float, float]
+    permittivity: tuple[float, float]
+    source: str = "given by the user"
+
+    def __post_init__(self):
+        (s_lo, s_hi), (e_lo, e_hi) = self.conductivity_s_per_m, self.permittivity
+        if not 0 < s_lo <= s_hi:
+            raise ValueError(f"conductivity range must be > 0 and low <= high; got {s_lo!r} to {s_hi!r} S/m")
+        if not 1.0 <= e_lo <= e_hi <= 100.0:
+            raise ValueError(f"permittivity range must lie in [1, 100] with low <= high; got {e_lo!r} to {e_hi!r}")
+
+    @property
+    def is_zero(self) -> bool:
+        (s_lo, s_hi), (e_lo, e_hi) = self.conductivity_s_per_m, self.permittivity
+        return s_lo == s_hi and e_lo == e_hi
+
+
+CLASS_SPREAD_FACTOR = {"conductivity": 2.5, "permittivity": 1.5}
+"""The documented spread of a named ground class (snrgain's assumption, common practice): its 10 % and 90 %
+points lie a factor of 2.5 below and above the class's conductivity and a factor of 1.5 around its permittivity
+(clipped to [1, 100]), the scatter of soil within one class over a lot and over the seasons.  Water is narrower:
+sea water a factor of 1.2 in conductivity and 1.1 in permittivity, fresh water 2 and 1.1."""
+
+_WATER_SPREAD = {"sea water": (1.2, 1.1), "fresh water": (2.0, 1.1)}
+
+
+def class_spread(name: str) -> GroundSpread:
+    """The documented spread of a named ground (:data:`CLASS_SPREAD_FACTOR`)."""
+    g = ground_by_name(name)
+    fs, fe = _WATER_SPREAD.get(name, (CLASS_SPREAD_FACTOR["conductivity"], CLASS_SPREAD_FACTOR["permittivity"]))
+    eps = (max(1.0, g.permittivity / fe), min(100.0, g.permittivity * fe))
+    return GroundSpread(
+        (g.conductivity_s_per_m / fs, g.conductivity_s_per_m * fs),
+        eps,
+        f"the documented spread of the class {name!r} (snrgain's assumption, common practice)",
+    )
+
+
 PERFECT = "perfect"
 """Name of the perfectly conducting ground (reflection +1 vertical, -1 horizontal)."""
 

@@ -92,6 +92,8 @@ class LocalSource:
     """Level on P.372's reference monopole [dB above kT0b]."""
     level_dbm: float | None = None
     """Level received on the reference antenna through its chain in the band's bandwidth [dBm]."""
+    uncertainty_db: float = 0.0
+    """How uncertain the level is: the 10-90 % half-width, treated like a P.372 decile deviation [dB]."""
 
 
 @dataclass(frozen=True)

@@ -18,10 +18,10 @@ def to_json(results: Results) -> str:
 
 
 CSV_COLUMNS = [
-    "rank",
+    "target",
+    "rank_for_target",
     "antenna",
     "family",
-    "target",
     "month",
     "utc_hour",
     "snr_gain_db",
@@ -35,23 +35,27 @@ CSV_COLUMNS = [
 
 
 def to_csv(results: Results) -> str:
-    """One row per antenna, target, month and hour (the reference has rank 0)."""
+    """One row per target, antenna and listened month and hour (the reference has rank 0)."""
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(CSV_COLUMNS)
-    for rank, a in enumerate([results.reference, *results.candidates]):
-        for ti, t in enumerate(results.targets):
+    for ti, (t, tr) in enumerate(zip(results.targets, results.target_results)):
+        ranked = [results.reference] + [results.antenna(n) for n in tr.ranking]
+        for rank, a in enumerate(ranked):
             for mi, month in enumerate(results.months):
                 for hi, hour in enumerate(results.utc_hours):
+                    g = a.snr_gain_db[ti, mi, hi]
+                    if np.isnan(g):
+                        continue  # not listened for this target then
                     w.writerow(
                         [
+                            t["name"],
                             rank,
                             a.name,
                             a.family,
-                            t["name"],
                             month,
                             f"{hour:g}",
-                            f"{a.snr_gain_db[ti, mi, hi]:.3f}",
+                            f"{g:.3f}",
                             f"{a.gain_dbi[ti]:.3f}",
                             f"{a.rdf_db[ti]:.3f}",
                             f"{a.front_to_back_db[ti]:.3f}",
@@ -79,18 +83,31 @@ def _preamp_cell(a) -> str:
     return "none" if np.any(np.isnan(g)) else f"{float(np.max(g)):.0f}"
 
 
-def ranking_table(results: Results):
-    """A rich renderable: header lines, the ranking, and SNR gain per target."""
-    from rich.console import Group
-    from rich.table import Table
+def hours_text(hours) -> str:
+    """UTC hours as a compact list: "22-23, 0-4 UTC" for runs of whole hours, else the hours.
+
+    >>> hours_text([0.0, 1.0, 2.0, 5.0, 22.0, 23.0])
+    '0-2, 5, 22-23 UTC'
+    """
+    hs = sorted(float(h) for h in hours)
+    parts, start = [], None
+    for i, h in enumerate(hs):
+        if start is None:
+            start = h
+        nxt = hs[i + 1] if i + 1 < len(hs) else None
+        if nxt is None or nxt - h != 1.0:
+            parts.append(f"{start:g}" if start == h else f"{start:g}-{h:g}")
+            start = None
+    return ", ".join(parts) + " UTC"
+
+
+def _header(r: Results):
     from rich.text import Text
 
-    r = results
-    hours = ", ".join(f"{h:g}" for h in r.utc_hours)
     head = Text()
     head.append(f"{r.site['name']}", style="bold")
     head.append(f"  {r.site['latitude_deg']:.2f}, {r.site['longitude_deg']:.2f}  ground: {r.site['ground']}\n")
-    head.append(f"{r.freq_hz / 1e6:g} MHz in {r.bandwidth_hz:g} Hz; months {r.months}; UTC hours {hours}\n")
+    head.append(f"{r.freq_hz / 1e6:g} MHz in {r.bandwidth_hz:g} Hz; reference: {r.reference.name}\n")
     noise_bits = []
     for name, c in r.noise.components.items():
         fa = c["fa_db"]
@@ -112,60 +129,189 @@ def ranking_table(results: Results):
         f"Receiver: NF {r.receiver['noise_figure_db']:.1f} dB; chain NF {r.receiver['chain_noise_figure_db']:.1f} dB"
         f"{' (' + stages + ')' if stages else ''}; floor at the receiver {r.receiver['noise_floor_dbm']:.1f} dBm\n"
     )
+    return head
 
-    t = Table(title=f"SNR gain over {r.reference.name}, mean over targets and hours", title_justify="left")
-    t.add_column("#", justify="right")
-    t.add_column("antenna", no_wrap=True, max_width=34)
-    for label in ("SNR dB\nmean", "SNR dB\nworst", "RDF dB\nwtd", "F/B dB\nwtd", "G tgt\ndBi", "noise\ndBm"):
-        t.add_column(label, justify="right", no_wrap=True)
-    t.add_column("S", no_wrap=True)
-    t.add_column("margin\ndB", justify="right", no_wrap=True)
-    t.add_column("preamp\ndB", justify="right", no_wrap=True)
-    w = np.array([tg["weight"] for tg in r.targets])
+
+def spread_note(r: Results) -> str:
+    """Which spreads the medians and bands count, in words."""
+    u = r.uncertainty
+    parts = []
+    if u.get("ground"):
+        g = u["ground"]
+        s_lo, s_hi = (x * 1e3 for x in g["conductivity_s_per_m"])
+        e_lo, e_hi = g["permittivity"]
+        parts.append(f"ground {s_lo:.2g}-{s_hi:.2g} mS/m, permittivity {e_lo:.3g}-{e_hi:.3g}")
+    if u.get("noise_deciles"):
+        parts.append("P.372 noise deciles")
+    if u.get("local_sources_db"):
+        parts.append("local source levels")
+    if u.get("hours"):
+        parts.append("hour to hour")
+    return "spread over " + (", ".join(parts) if parts else "nothing (every spread is off)")
+
+
+def target_table(r: Results, i: int):
+    """One target's ranking: median SNR gain with its 10-90 % band, the chance of beating the reference, RDF,
+    front-to-back, and each antenna's noise against the receiver."""
+    from rich.table import Table
+    from rich.text import Text
+
+    t, tr = r.targets[i], r.target_results[i]
+    where = f"{t['bearing_deg']:.0f} deg, {t['elevation_min_deg']:.0f}-{t['elevation_max_deg']:.0f} deg elevation"
+    if t.get("distance_km"):
+        where += f", {t['distance_km']:.0f} km"
+    when = f"months {', '.join(str(m) for m in t['months'])}; {hours_text(t['utc_hours'])}"
+    table = Table(
+        title=Text(f"{t['name']}: {where}; {when}", style="bold"),
+        title_justify="left",
+        caption=f"SNR gain over {r.reference.name}; {spread_note(r)}",
+        caption_justify="left",
+    )
+    table.add_column("#", justify="right", no_wrap=True)
+    table.add_column("antenna", no_wrap=True, max_width=32)
+    for label in (
+        "SNR gain dB\nmedian (10-90 %)",
+        f"P(>={r.beat_by_db:g}\ndB)",
+        "RDF\ndB",
+        "F/B\ndB",
+        "noise dBm\n(S-meter)",
+        "margin\ndB",
+        "preamp\ndB",
+    ):
+        table.add_column(label, justify="right", no_wrap=True)
 
     def row(rank, a, style=None):
         noise = float(np.median(a.noise_dbm))
         margin = float(np.min(a.margin_db))
-        t.add_row(
+        limited = a.receiver_limited
+        if a is r.reference:
+            gain, prob = "0 (reference)", "-"
+        else:
+            gain = f"{_f(a.snr_gain_median_db[i])} ({_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])})"
+            prob = f"{100 * a.probability_beats[i]:.0f} %"
+        table.add_row(
             rank,
-            a.name,
-            _f(a.summary_snr_gain_db),
-            _f(a.worst_snr_gain_db),
-            _f(np.dot(w, a.rdf_db)),
-            _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))),
-            _f(10 * np.log10(np.dot(w, 10 ** (a.gain_dbi / 10)))),
-            _f(noise, "{:.1f}"),
-            s_units(noise),
-            Text(
-                _f(margin, "{:.1f}") + (" !" if a.receiver_limited else ""),
-                style="bold red" if a.receiver_limited else None,
-            ),
+            Text(a.name),
+            gain,
+            prob,
+            _f(a.rdf_db[i]),
+            _f(np.clip(a.front_to_back_db[i], -99, 99)),
+            f"{noise:.1f} ({s_units(noise)})",
+            Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
             _preamp_cell(a),
             style=style,
         )
 
     row("ref", r.reference, style="dim")
-    for i, a in enumerate(r.candidates):
-        row(str(i + 1), a)
-
-    pt = Table(title="Per target: SNR gain dB, mean over hours (worst), and RDF dB", title_justify="left")
-    pt.add_column("antenna", no_wrap=True, max_width=34)
-    for tg in r.targets:
-        extra = f"\n{tg['bearing_deg']:.0f} deg, {tg['elevation_min_deg']:.0f}-{tg['elevation_max_deg']:.0f} deg el"
-        pt.add_column(tg["name"] + extra, justify="right")
-    for a in r.candidates:
-        pt.add_row(
-            a.name,
-            *[
-                f"{_f(a.snr_gain_db[i].mean())} ({_f(a.snr_gain_db[i].min())})  RDF {_f(a.rdf_db[i])}"
-                for i in range(len(r.targets))
-            ],
+    for k, name in enumerate(tr.ranking):
+        row(str(k + 1), r.antenna(name))
+    best = r.antenna(tr.best)
+    verdict = Text()
+    if best.snr_gain_median_db[i] > 0:
+        verdict.append(f"Best toward {t['name']}: ", style="bold")
+        verdict.append(f"{tr.best}", style="bold green")
+        verdict.append(
+            f", {best.snr_gain_median_db[i]:+.1f} dB over {r.reference.name} (median; "
+            f"{best.snr_gain_p10_db[i]:+.1f} to {best.snr_gain_p90_db[i]:+.1f} dB), "
+            f"{tr.margin_db:.1f} dB ahead of {tr.runner_up}."
         )
-    foot = Text(
-        "wtd: weighted mean over the targets (see the per-target table); noise: sky noise delivered to the receiver "
-        "input; margin: that minus the chain's noise floor (worst hour); "
-        "'!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the target "
-        "('none' if no gain can).",
-        style="dim",
+    else:
+        verdict.append(
+            f"Toward {t['name']} no candidate beats {r.reference.name} (best: {tr.best}, "
+            f"{best.snr_gain_median_db[i]:+.1f} dB).",
+            style="bold",
+        )
+    from rich.console import Group
+
+    return Group(table, verdict, Text(""))
+
+
+def plan_text(r: Results):
+    """The station plan in words: what to build, in order, the dB each adds, and who serves which target when."""
+    from rich.text import Text
+
+    p = r.plan
+    out = Text()
+    out.append("Station plan", style="bold")
+    limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
+    if not p.antennas:
+        out.append(f"{limit}: no candidate adds {0.1:g} dB or more; keep {r.reference.name}.\n")
+        return out
+    out.append(
+        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone "
+        "(weighted mean over targets of the best antenna's SNR gain at each hour)\n"
     )
-    return Group(head, t, pt, foot)
+    for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
+        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB\n")
+    for t, rows in sorted(p.by_target.items()):
+        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
+        out.append(f"  {r.targets[t]['name']}: {served}\n")
+    return out
+
+
+def build_lines(r: Results) -> list[tuple[str, str]]:
+    """(candidate, what to build) in words, one per candidate."""
+    out = []
+    for a in r.candidates:
+        b = a.build
+        bits = []
+        if "length_m" in b and b["family"] != "terminated-loop":
+            bits.append(f"{b['length_m']:.1f} m ({b['length_ft']:.0f} ft)")
+        if "height_m" in b:
+            bits.append(f"height {b['height_m']:g} m")
+        if "bearing_deg" in b:
+            bits.append(f"toward {b['bearing_deg']:.0f} deg")
+        if b["family"] == "terminated-loop":
+            bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
+        if "termination_ohm" in b:
+            bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm)")
+        if "turns_ratio" in b:
+            bits.append(
+                f"transformer {b['turns_ratio']:.2f}:1 to {b['coax_ohm']:g} ohm coax (mismatch "
+                f"{b['mismatch_loss_db']:.2f} dB; practical {b['practical_turns_ratio']:g}:1, "
+                f"{b['practical_mismatch_loss_db']:.2f} dB)"
+            )
+        if "delays_ns" in b:
+            lines = ", ".join(f"{d:.0f} ns = {m:.2f} m" for d, m in zip(b["delays_ns"], b["phasing_lengths_m"]))
+            bits.append(f"phasing delays {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})")
+        if b["family"] == "vertical":
+            bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
+        out.append((a.name, "; ".join(bits) if bits else "a pattern table; nothing to compute"))
+    return out
+
+
+def build_text(r: Results):
+    """The build sheets, compactly: the values to cut, wind and solder for each candidate."""
+    from rich.text import Text
+
+    out = Text()
+    out.append("Build sheet", style="bold")
+    out.append(" (resistors: nearest E12 value, IEC 60063; turns ratio antenna side over coax side)\n")
+    for name, text in build_lines(r):
+        out.append(f"  {name}: ", style="bold")
+        out.append(text + "\n")
+    return out
+
+
+def ranking_table(results: Results, *, build: bool = False):
+    """A rich renderable: header lines, one ranking per target, the station plan, and (``build``) the build
+    sheet."""
+    from rich.console import Group
+    from rich.text import Text
+
+    r = results
+    parts = [_header(r)]
+    parts += [target_table(r, i) for i in range(len(r.targets))]
+    parts.append(plan_text(r))
+    if build:
+        parts.append(build_text(r))
+    parts.append(
+        Text(
+            "RDF on the trade's scale (gain toward the target over the gain averaged over the whole sphere); "
+            "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
+            "hour); '!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the "
+            "target ('none' if no gain can).",
+            style="dim",
+        )
+    )
+    return Group(*parts)

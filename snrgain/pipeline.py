@@ -5,13 +5,15 @@
 2. :func:`snrgain.snr.antenna_gains`: every antenna's gains on the sky grid and toward every target;
 3. :func:`snrgain.noise.build_skies`: the noise sky for every month and hour;
 4. :func:`snrgain.snr.sky_temperatures`: each antenna's temperature from each component;
-5. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
+5. :func:`snrgain.spread.snr_spread`: how sure, over the ground, the noise levels and the hours;
+6. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
    antenna's chain (:func:`snrgain.chain.noise_budget`);
-6. :func:`notices` and :func:`summary`: what the user should know, and the ranked Results.
+7. :func:`summary`: per target the candidates ranked by median SNR gain toward it, the station plan
+   (:func:`snrgain.plan.station_plan`), the build sheets (:func:`snrgain.build.build_sheet`) and
+   :func:`notices`.
 
-Aggregation: a candidate's summary SNR gain is the mean, in dB, over every
-target (weighted by the targets' weights) and every month and hour listed;
-the worst case is the minimum over the same.  Candidates rank by the mean.
+Nothing is averaged over targets in dB except the plan's worth, which is the
+weighted mean of the best-in-set gain toward each target (snrgain.plan).
 """
 
 from __future__ import annotations
@@ -22,9 +24,12 @@ from noisemodels import p372
 from snrgain import chain as chainmod
 from snrgain import noise as noisemod
 from snrgain import snr
+from snrgain.build import build_sheet
+from snrgain.plan import station_plan
 from snrgain.receiver import power_dbm
-from snrgain.results import AntennaResult, Notice, PatternCuts, Results, rank
+from snrgain.results import AntennaResult, Notice, PatternCuts, Results, rank_for_target
 from snrgain.scenario import Scenario, load
+from snrgain.spread import SnrSpread, snr_spread
 
 
 def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
@@ -52,7 +57,8 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
         reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
     )
     temps = snr.sky_temperatures(gains, skies)
-    antennas = antenna_results(sc, gains, temps, skies)
+    spread = snr_spread(sc, grid, skies, gains, temps)
+    antennas = antenna_results(sc, gains, temps, skies, spread)
     az_cut, el_cut = snr.pattern_cuts(sc.antennas, sc.freq_hz, sc.targets)
     cuts = PatternCuts(
         snr.AZIMUTH_CUT_DEG,
@@ -64,18 +70,19 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
 
 
 def antenna_results(
-    sc: Scenario, gains: snr.Gains, temps: snr.Temperatures, skies: noisemod.SkySeries
+    sc: Scenario, gains: snr.Gains, temps: snr.Temperatures, skies: noisemod.SkySeries, spread: SnrSpread
 ) -> list[AntennaResult]:
-    """Per-antenna figures ([reference, *candidates], unranked) from gains and sky temperatures."""
+    """Per-antenna figures ([reference, *candidates], unranked) from gains, sky temperatures and the spread."""
     b = sc.bandwidth_hz
     t_chain = np.array([c.temperature_k for c in sc.chains])
-    snr_gain = snr.snr_gain_over_reference(gains.toward, temps.total + t_chain[:, None, None])
+    masks = target_masks(sc)
+    snr_gain = np.where(masks, snr.snr_gain_over_reference(gains.toward, temps.total + t_chain[:, None, None]), np.nan)
     deciles = [
         snr.snr_gain_with_scaled_kind(gains.toward, temps, t_chain, skies, kind="atmospheric", deviation=d)
         for d in ("upper", "lower")
     ]
+    deciles = [None if d is None else np.where(masks, d, np.nan) for d in deciles]
     fb = snr.front_to_back_toward(gains, sc.targets)
-    nm, nh = len(sc.times.months), len(sc.times.utc_hours)
     with np.errstate(divide="ignore"):
         gain_dbi = 10.0 * np.log10(gains.toward)
         rdf = 10.0 * np.log10(gains.toward / gains.mean[:, None])
@@ -105,8 +112,11 @@ def antenna_results(
                 receiver_snr_loss_db=budget.receiver_snr_loss_db,
                 preamp_gain_needed_db=budget.preamp_gain_needed_db,
                 preamp_position=budget.preamp_position,
-                summary_snr_gain_db=float(np.sum(sc.target_weights[:, None, None] * g) / (nm * nh)),
-                worst_snr_gain_db=float(np.min(g)),
+                snr_gain_nominal_db=np.array([np.mean(gt[m]) for gt, m in zip(g, masks)]),
+                snr_gain_median_db=spread.median_db[k],
+                snr_gain_p10_db=spread.p10_db[k],
+                snr_gain_p90_db=spread.p90_db[k],
+                probability_beats=spread.probability[k],
                 receiver_limited=bool(np.any(budget.margin_db < sc.receiver.margin_target_db)),
                 chain=chainmod.describe(ch, bandwidth_hz=b),
                 snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),
@@ -140,10 +150,27 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
     return out
 
 
+def target_masks(sc: Scenario) -> np.ndarray:
+    """Which (month, hour) cells of the scenario's grid each target is listened at, shape (targets, months, hours)."""
+    return np.array([t.mask(sc.times) for t in sc.target_times])
+
+
 def summary(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:
-    """The ranked Results of a scenario from its per-antenna figures."""
+    """The Results of a scenario from its per-antenna figures: rankings per target, the plan, the build sheets."""
     ground = sc.site.ground
-    reference, candidates = antennas[0], rank(antennas[1:])
+    reference, candidates = antennas[0], antennas[1:]
+    for a, ant, ch in zip(candidates, sc.candidates, sc.chains[1:]):
+        a.build = build_sheet(ant, sc.freq_hz, cable=ch.cable)
+    targets = [_target_dict(t, w, tt) for t, w, tt in zip(sc.targets, sc.target_weights, sc.target_times)]
+    plan = station_plan(
+        [a.name for a in antennas],
+        np.nan_to_num(np.array([a.snr_gain_db for a in antennas]), nan=0.0),
+        target_masks(sc),
+        sc.target_weights,
+        max_antennas=sc.max_antennas,
+        months=sc.times.months,
+        utc_hours=sc.times.utc_hours,
+    )
     return Results(
         source=sc.source,
         site={
@@ -158,12 +185,16 @@ def summary(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResul
         bandwidth_hz=sc.bandwidth_hz,
         months=list(sc.times.months),
         utc_hours=list(sc.times.utc_hours),
-        targets=[_target_dict(t, w) for t, w in zip(sc.targets, sc.target_weights)],
+        targets=targets,
         noise=skies,
         reference=reference,
         candidates=candidates,
         receiver=_receiver_dict(sc),
         nside=sc.nside,
+        target_results=[rank_for_target(candidates, i, t["name"], reference) for i, t in enumerate(targets)],
+        plan=plan,
+        uncertainty=_uncertainty_dict(sc),
+        beat_by_db=sc.uncertainty.beat_by_db,
         notices=notices(sc, [reference, *candidates]),
         cuts=cuts,
         lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),
@@ -191,7 +222,27 @@ def _receiver_dict(sc: Scenario) -> dict:
     }
 
 
-def _target_dict(t, w) -> dict:
+def _uncertainty_dict(sc: Scenario) -> dict:
+    u = sc.uncertainty
+    gs = sc.site.ground_spread if u.ground else None
+    return {
+        "ground": None
+        if gs is None or gs.is_zero
+        else {
+            "conductivity_s_per_m": list(gs.conductivity_s_per_m),
+            "permittivity": list(gs.permittivity),
+            "source": gs.source,
+        },
+        "noise_deciles": u.noise_deciles,
+        "local_sources_db": {s.name: s.uncertainty_db for s in sc.noise.local if s.uncertainty_db > 0},
+        "hours": u.hours,
+        "samples": u.samples,
+        "seed": u.seed,
+        "beat_by_db": u.beat_by_db,
+    }
+
+
+def _target_dict(t, w, times) -> dict:
     return {
         "name": t.name,
         "weight": float(w),
@@ -200,6 +251,8 @@ def _target_dict(t, w) -> dict:
         "elevation_max_deg": float(np.degrees(t.elevation_rad.max())),
         "distance_km": None if t.distance_m is None else t.distance_m / 1e3,
         "hops": None if t.hops is None else list(t.hops),
+        "months": list(times.months),
+        "utc_hours": list(times.utc_hours),
     }
 
 

@@ -257,37 +257,73 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
     return fig
 
 
+def _with_gaps(hours, values):
+    """Hours and values sorted by hour, with NaN put where listed hours lie more than 1.5 times their usual
+    (median) step apart, so that no line crosses hours nobody listens at."""
+    h = np.asarray(hours, dtype=float)
+    v = np.asarray(values, dtype=float)
+    order = np.argsort(h)
+    h, v = h[order], v[order]
+    keep = np.isfinite(v)
+    h, v = h[keep], v[keep]
+    if h.size < 2:
+        return h, v
+    d = np.diff(h)
+    step = float(np.median(d))
+    out_h, out_v = [h[0]], [v[0]]
+    for i in range(1, h.size):
+        if d[i - 1] > 1.5 * step + 1e-9:
+            out_h.append(0.5 * (h[i - 1] + h[i]))
+            out_v.append(np.nan)
+        out_h.append(h[i])
+        out_v.append(v[i])
+    return np.array(out_h), np.array(out_v)
+
+
 def snr_over_hours(results, *, ax=None):
-    """SNR gain over the reference against UTC hour (mean over targets and months), with P.372 decile bands."""
+    """SNR gain over the reference against UTC hour, one panel per target (mean over its months), with the band of
+    atmospheric noise at its P.372 deciles; gaps where the target is not listened for.
+
+    ``ax``: a sequence of one Axes per target.
+    """
     own = ax is None
-    fig, (ax,) = _axes(ax, figsize=(8.5, 4.8))
+    nt = len(results.targets)
+    fig, axes = _axes(ax, n=nt, figsize=(8.5, 3.2 * nt + 1.0), sharex=True)
     hours = np.asarray(results.utc_hours, dtype=float)
-    order = np.argsort(hours)
-    w = np.array([t["weight"] for t in results.targets])
     atm = False
-    for a, col in zip(results.candidates, _colors(len(results.candidates))):
-        mean = np.tensordot(w, a.snr_gain_db, axes=1).mean(axis=0)
-        ax.plot(hours[order], mean[order], marker="o", ms=4, color=col, label=a.name)
-        if a.snr_gain_atmospheric_deciles_db is not None:
-            atm = True
-            hi, lo = (np.tensordot(w, d, axes=1).mean(axis=0) for d in a.snr_gain_atmospheric_deciles_db)
-            ax.fill_between(hours[order], np.minimum(hi, lo)[order], np.maximum(hi, lo)[order], color=col, alpha=0.15)
-    ax.axhline(0.0, **REFERENCE_STYLE, label=f"{results.reference.name} (reference)")
-    ax.set_xlabel("UTC hour")
-    ax.set_ylabel("SNR gain over the reference (dB)")
-    band = " (bands: atmospheric noise at its P.372 upper and lower deciles)" if atm else ""
-    ax.set_title(f"SNR gain over the hours, {results.freq_hz / 1e6:g} MHz{band}", fontsize=10)
-    ax.set_xticks(np.arange(0, 25, 2))
-    ax.set_xlim(-0.5, 24)
-    ax.grid(alpha=0.3)
-    ax.legend(fontsize=8, ncols=2)
+    colors = _colors(len(results.candidates))
+    for i, (t, axi) in enumerate(zip(results.targets, axes)):
+        for a, col in zip(results.candidates, colors):
+            with np.errstate(invalid="ignore"):
+                mean = np.nanmean(a.snr_gain_db[i], axis=0) if np.any(np.isfinite(a.snr_gain_db[i])) else None
+            if mean is None:
+                continue
+            h, v = _with_gaps(hours, mean)
+            axi.plot(h, v, marker="o", ms=4, color=col, label=a.name)
+            if a.snr_gain_atmospheric_deciles_db is not None:
+                atm = True
+                hi, lo = (np.nanmean(d[i], axis=0) for d in a.snr_gain_atmospheric_deciles_db)
+                h1, v_hi = _with_gaps(hours, hi)
+                _, v_lo = _with_gaps(hours, lo)
+                axi.fill_between(h1, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=col, alpha=0.15)
+        axi.axhline(0.0, **REFERENCE_STYLE, label=f"{results.reference.name} (reference)")
+        axi.set_ylabel("SNR gain (dB)")
+        axi.set_title(f"toward {t['name']}", fontsize=10, loc="left")
+        axi.grid(alpha=0.3)
+    axes[0].legend(fontsize=8, ncols=2)
+    axes[-1].set_xlabel("UTC hour")
+    axes[-1].set_xticks(np.arange(0, 25, 2))
+    axes[-1].set_xlim(-0.5, 24)
+    band = "; bands: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
+    title = f"SNR gain over the reference through the hours, {results.freq_hz / 1e6:g} MHz{band}"
     if own:
+        fig.suptitle(title, fontsize=10)
         fig.tight_layout()
     return fig
 
 
 def ranking_chart(results, *, ax=None):
-    """SNR gain per target (bars, mean over hours) with RDF per target and the worst-hour margin beside them.
+    """Per target, each candidate's median SNR gain with its 10-90 % band; RDF per target; the worst-hour margin.
 
     ``ax``: a sequence of three Axes (SNR gain, RDF, margin).
     """
@@ -309,17 +345,29 @@ def ranking_chart(results, *, ax=None):
     tcol = _colors(nt)
     for ti, t in enumerate(targets):
         off = (ti - (nt - 1) / 2) * h
-        snr = [float(c.snr_gain_db[ti].mean()) for c in cands]
-        rdf = [float(c.rdf_db[ti]) for c in cands]
-        axes[0].barh(y + off, snr, height=h, color=tcol[ti], label=t["name"])
-        axes[1].barh(y + off, rdf, height=h, color=tcol[ti])
-        for yi, v in zip(y + off, snr):
-            axes[0].text(v, yi, f" {v:+.1f}", va="center", fontsize=7)
-    summary = [c.summary_snr_gain_db for c in cands]
-    axes[0].scatter(summary, y, marker="D", color="black", zorder=3, s=18, label="mean over targets (ranks)")
+        med = np.array([c.snr_gain_median_db[ti] for c in cands])
+        lo = np.array([c.snr_gain_p10_db[ti] for c in cands])
+        hi = np.array([c.snr_gain_p90_db[ti] for c in cands])
+        axes[0].barh(y + off, med, height=h, color=tcol[ti], label=t["name"], alpha=0.85)
+        axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
+        axes[1].barh(y + off, [c.rdf_db[ti] for c in cands], height=h, color=tcol[ti])
+        for yi, v, top in zip(y + off, med, hi):
+            axes[0].text(max(top, 0), yi, f"  {v:+.1f}", va="center", fontsize=7)
+        best = results.target_results[ti].best
+        yb = y[names.index(best)] + off
+        axes[0].plot(
+            [results.antenna(best).snr_gain_median_db[ti]],
+            [yb],
+            marker="*",
+            color="gold",
+            ms=12,
+            markeredgecolor="black",
+            ls="none",
+            label="best" if ti == 0 else None,
+        )
     axes[0].axvline(0, color="0.3", lw=1)
     axes[0].set_yticks(y, names)
-    axes[0].set_xlabel("SNR gain over the reference (dB, mean over hours)")
+    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %")
     axes[0].set_title("SNR gain per target", fontsize=10)
     axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)

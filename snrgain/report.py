@@ -143,45 +143,126 @@ def _summary(r) -> str:
 
 
 def _ranking(r) -> str:
-    w = np.array([t["weight"] for t in r.targets])
-    head = ["#", "antenna", "SNR gain mean (dB)", "SNR gain worst (dB)"]
-    head += [f"SNR gain: {_e(t['name'])} (dB)" for t in r.targets]
-    head += ["RDF (dB)", "F/B (dB)", "noise at receiver (dBm)", "S", "margin (dB)", "preamp (dB)"]
-    out = [
-        "<table id='ranking'><tr>"
-        + "".join(f"<th{' class=name' if h == 'antenna' else ''}>{h}</th>" for h in head)
-        + "</tr>"
-    ]
-    for rank, a in [("ref", r.reference)] + [(str(i + 1), c) for i, c in enumerate(r.candidates)]:
-        noise = float(np.median(a.noise_dbm))
-        margin = float(np.min(a.margin_db))
-        pre = (
-            "&ndash;"
-            if not a.receiver_limited
-            else ("none" if np.any(np.isnan(a.preamp_gain_needed_db)) else f"{np.max(a.preamp_gain_needed_db):.0f}")
+    """One table per target (its own ranking, best first) and a line naming the best with its margin."""
+    out = []
+    for i, (t, tr) in enumerate(zip(r.targets, r.target_results)):
+        hours = ", ".join(f"{h:g}" for h in t["utc_hours"])
+        out.append(
+            f"<h3>{_e(t['name'])}</h3><p class='note'>Bearing {t['bearing_deg']:.0f}&deg;, elevations "
+            f"{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}&deg;; months "
+            f"{', '.join(str(m) for m in t['months'])}; UTC hours {hours}.</p>"
         )
-        cells = [rank, f"<td class='name'>{_e(a.name)}</td>", _f(a.summary_snr_gain_db), _f(a.worst_snr_gain_db)]
-        cells += [_f(a.snr_gain_db[i].mean()) for i in range(len(r.targets))]
-        cells += [
-            _f(np.dot(w, a.rdf_db)),
-            _f(np.dot(w, np.clip(a.front_to_back_db, -99, 99))),
-            _f(noise, "{:.1f}"),
-            s_units(noise),
+        head = [
+            "#",
+            "antenna",
+            "SNR gain median (dB)",
+            "10 %&ndash;90 % (dB)",
+            f"P(&ge;{r.beat_by_db:g} dB)",
+            "RDF (dB)",
+            "F/B (dB)",
+            "noise at receiver (dBm)",
+            "S",
+            "margin (dB)",
+            "preamp (dB)",
         ]
-        row = [f"<td>{c}</td>" if not str(c).startswith("<td") else c for c in cells]
-        row.append(f"<td class='warn'>{margin:.1f} !</td>" if a.receiver_limited else f"<td>{margin:.1f}</td>")
-        row.append(f"<td>{pre}</td>")
-        out.append(f"<tr{' class=ref' if rank == 'ref' else ''}>" + "".join(row) + "</tr>")
-    out.append("</table>")
+        rows = [
+            "<table"
+            + (" id='ranking'" if i == 0 else "")
+            + "><tr>"
+            + "".join(f"<th{' class=name' if h == 'antenna' else ''}>{h}</th>" for h in head)
+            + "</tr>"
+        ]
+        ranked = [("ref", r.reference)] + [(str(k + 1), r.antenna(n)) for k, n in enumerate(tr.ranking)]
+        for rank, a in ranked:
+            noise = float(np.median(a.noise_dbm))
+            margin = float(np.min(a.margin_db))
+            pre = (
+                "&ndash;"
+                if not a.receiver_limited
+                else ("none" if np.any(np.isnan(a.preamp_gain_needed_db)) else f"{np.max(a.preamp_gain_needed_db):.0f}")
+            )
+            ref = a is r.reference
+            cells = [
+                rank,
+                f"<td class='name'>{_e(a.name)}</td>",
+                "0" if ref else _f(a.snr_gain_median_db[i]),
+                "&ndash;" if ref else f"{_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])}",
+                "&ndash;" if ref else f"{100 * a.probability_beats[i]:.0f} %",
+                _f(a.rdf_db[i]),
+                _f(np.clip(a.front_to_back_db[i], -99, 99)),
+                _f(noise, "{:.1f}"),
+                s_units(noise),
+            ]
+            row = [f"<td>{c}</td>" if not str(c).startswith("<td") else c for c in cells]
+            row.append(f"<td class='warn'>{margin:.1f} !</td>" if a.receiver_limited else f"<td>{margin:.1f}</td>")
+            row.append(f"<td>{pre}</td>")
+            rows.append(f"<tr{' class=ref' if ref else ''}>" + "".join(row) + "</tr>")
+        rows.append("</table>")
+        out += rows
+        best = r.antenna(tr.best)
+        if best.snr_gain_median_db[i] > 0:
+            out.append(
+                f"<p><b>Best toward {_e(t['name'])}: {_e(tr.best)}</b>, "
+                f"{best.snr_gain_median_db[i]:+.1f} dB over {_e(r.reference.name)} (median; "
+                f"{best.snr_gain_p10_db[i]:+.1f} to {best.snr_gain_p90_db[i]:+.1f} dB), "
+                f"{tr.margin_db:.1f} dB ahead of {_e(tr.runner_up)}.</p>"
+            )
+        else:
+            out.append(
+                f"<p><b>Toward {_e(t['name'])} no candidate beats {_e(r.reference.name)}</b> "
+                f"(best: {_e(tr.best)}, {best.snr_gain_median_db[i]:+.1f} dB).</p>"
+            )
     out.append(
-        "<p class='note'>SNR gain over the reference antenna toward the targets with this site's noise sky and "
-        "the receiving chain; 'mean' averages in dB over the targets (weighted) and the hours, which ranks the "
-        "candidates. Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the "
-        "worst hour; '!' marks an antenna limited by receiver noise; preamp: gain that would reach the target.</p>"
+        "<p class='note'>SNR gain over the reference antenna toward each target with this site's noise sky and the "
+        "receiving chain, at the target's own months and hours: median, and its 10 % and 90 % points over the "
+        f"spreads counted ({_e(_spread_words(r))}); P: the chance of beating the reference by "
+        f"{r.beat_by_db:g} dB or more. RDF on the trade's scale (over the gain averaged over the whole sphere). "
+        "Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the worst hour; "
+        "'!' marks an antenna limited by receiver noise; preamp: gain that would reach the target.</p>"
     )
     if r.warnings:
         out.append("<ul>" + "".join(f"<li>{_e(wn)}</li>" for wn in r.warnings) + "</ul>")
     return "\n".join(out)
+
+
+def _spread_words(r) -> str:
+    from snrgain.output import spread_note
+
+    return spread_note(r)
+
+
+def _plan(r) -> str:
+    p = r.plan
+    if not p.antennas:
+        return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
+    out = [
+        f"<p>Build {len(p.antennas)}, worth <b>{p.gain_db:+.1f} dB</b> over {_e(r.reference.name)} alone "
+        "(the weighted mean over targets of the best antenna's SNR gain at each hour), in this order:</p><ol>"
+    ]
+    out += [f"<li>{_e(n)}: adds {a:+.1f} dB</li>" for n, a in zip(p.antennas, p.added_db)]
+    out.append(
+        "</ol><table><tr><th class='name'>target</th><th class='name'>served by</th>"
+        "<th class='name'>UTC hours</th><th>SNR gain (dB)</th></tr>"
+    )
+    for t, rows in sorted(p.by_target.items()):
+        for s in rows:
+            out.append(
+                f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td><td class='name'>{_e(s.antenna)}</td>"
+                f"<td class='name'>{', '.join(f'{h:g}' for h in s.utc_hours)}</td>"
+                f"<td>{_f(s.snr_gain_db)}</td></tr>"
+            )
+    out.append("</table>")
+    return "\n".join(out)
+
+
+def _build(r) -> str:
+    from snrgain.output import build_lines
+
+    items = "".join(f"<li><b>{_e(name)}</b>: {_e(text)}</li>" for name, text in build_lines(r))
+    return (
+        "<p class='note'>Resistors: the nearest E12 value (IEC 60063) beside the computed one; turns ratio: "
+        f"antenna side over coax side.</p><ul>{items}</ul>"
+    )
 
 
 def figure_list(r) -> list[tuple[str, object, str]]:
@@ -214,10 +295,17 @@ def figure_list(r) -> list[tuple[str, object, str]]:
         (
             "SNR gain over the hours",
             plots.snr_over_hours(r),
-            "Mean over targets and months; bands show atmospheric noise at its P.372 deciles where included.",
+            "Per target, mean over its months; bands show atmospheric noise at its P.372 deciles where included; "
+            "gaps where a target is not listened for.",
         )
     )
-    figs.append(("Ranking", plots.ranking_chart(r), "SNR gain and RDF per target; margin of external noise."))
+    figs.append(
+        (
+            "Ranking",
+            plots.ranking_chart(r),
+            "Median SNR gain per target with its 10-90 % band; RDF per target; margin of external noise.",
+        )
+    )
     if plots.has_site_plan(r):
         figs.append(("Site plan", plots.site_plan(r), "The lot and the antennas to scale."))
     return figs
@@ -235,8 +323,12 @@ def render(results, *, title: str | None = None) -> str:
         f"sky resolution HEALPix nside {r.nside}.</p>",
         "<h2 id='summary'>Scenario</h2>",
         _summary(r),
-        "<h2 id='ranked'>Ranked candidates</h2>",
+        "<h2 id='ranked'>The best antenna for each target</h2>",
         _ranking(r),
+        "<h2 id='plan'>Station plan</h2>",
+        _plan(r),
+        "<h2 id='build'>Build sheet</h2>",
+        _build(r),
         "<h2 id='figures'>Figures</h2>",
     ]
     for i, (name, fig, caption) in enumerate(figure_list(r)):

@@ -17,7 +17,7 @@ import numpy as np
 
 from snrgain.noise import SkySeries
 
-SCHEMA_VERSION = "1"
+SCHEMA_VERSION = "2"
 
 
 @dataclass
@@ -28,11 +28,16 @@ class AntennaResult:
     ----------
     name, family, parameters : what the antenna is (parameters with SI units in keys)
     gain_dbi : weighted total gain toward each target [dBi], shape (targets,)
-    mean_gain_dbi : gain averaged over the upper hemisphere [dBi]
-    rdf_db : receiving directivity factor per target [dB]
+    mean_gain_dbi : gain averaged over the whole sphere, 0 below the horizon [dBi]
+    rdf_db : receiving directivity factor per target, trade scale (snrgain.snr) [dB]
     front_to_back_db : per target, at the target's mean elevation [dB]
-    snr_gain_db : SNR gain over the reference [dB], shape (targets, months, hours)
-    snr_gain_atmospheric_deciles_db : the same with atmospheric noise at its P.372 upper and lower deciles
+    snr_gain_db : SNR gain over the reference [dB], shape (targets, months, hours); NaN at the months and hours
+        a target is not listened for
+    snr_gain_nominal_db : per target, snr_gain_db averaged in dB over the target's months and hours [dB]
+    snr_gain_median_db, snr_gain_p10_db, snr_gain_p90_db : per target, the median and 10 % and 90 % points of
+        the SNR gain over the spreads counted (snrgain.spread) [dB]
+    probability_beats : per target, the probability that the SNR gain reaches Results.beat_by_db [-]
+    snr_gain_atmospheric_deciles_db : snr_gain_db with atmospheric noise at its P.372 upper and lower deciles
         [dB], shape (2, targets, months, hours); None without atmospheric noise
     noise_dbm : external noise delivered through the chain to the receiver input in the
         band's bandwidth [dBm], shape (months, hours)
@@ -44,8 +49,6 @@ class AntennaResult:
         NaN if no gain can [dB]
     preamp_position : where that preamplifier goes: "receiver" (before the receiver), "antenna" (after the
         transformer, where a lossy feed line follows), "as placed" (the chain's own), None if no gain helps
-    summary_snr_gain_db : mean of snr_gain_db (weighted over targets) [dB]
-    worst_snr_gain_db : minimum of snr_gain_db [dB]
     receiver_limited : True if margin_db falls below the margin target at any hour
     chain : noise_figure_db, gain_db, noise_floor_dbm (at the receiver input), stages
     """
@@ -64,17 +67,20 @@ class AntennaResult:
     receiver_snr_loss_db: np.ndarray
     preamp_gain_needed_db: np.ndarray
     preamp_position: str | None
-    summary_snr_gain_db: float
-    worst_snr_gain_db: float
     receiver_limited: bool
+    snr_gain_nominal_db: np.ndarray
+    snr_gain_median_db: np.ndarray
+    snr_gain_p10_db: np.ndarray
+    snr_gain_p90_db: np.ndarray
+    probability_beats: np.ndarray
     chain: dict[str, Any] = field(default_factory=dict)
     snr_gain_atmospheric_deciles_db: np.ndarray | None = field(default=None, repr=False)
+    build: dict[str, Any] = field(default_factory=dict)
+    """What to build: termination, transformer, phasing lines (snrgain.build)."""
 
     def __repr__(self) -> str:
-        return (
-            f"AntennaResult({self.name!r}, {self.family}, SNR gain mean {self.summary_snr_gain_db:+.1f} dB, "
-            f"worst {self.worst_snr_gain_db:+.1f} dB)"
-        )
+        per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
+        return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
 
 
 @dataclass(frozen=True)
@@ -91,6 +97,20 @@ class Notice:
 
 
 @dataclass
+class TargetResult:
+    """One target's answer: the candidates ranked by median SNR gain toward it, the best and its margin."""
+
+    name: str
+    ranking: list[str]
+    """Candidate names, highest median SNR gain first."""
+    best: str
+    runner_up: str
+    """The second candidate, or the reference when there is only one."""
+    margin_db: float
+    """The best's median SNR gain minus the runner-up's [dB]."""
+
+
+@dataclass
 class PatternCuts:
     """Total gain [dBi] on an azimuth cut at each target's mean elevation and on an elevation cut toward each
     target's bearing: antenna name -> array (targets, cut points)."""
@@ -103,7 +123,8 @@ class PatternCuts:
 
 @dataclass(repr=False)
 class Results:
-    """Everything ``evaluate`` computed.  ``candidates`` are ranked, best first."""
+    """Everything ``evaluate`` computed.  ``candidates`` are in the scenario's order; ``target_results`` rank them
+    per target; ``plan`` says which to build."""
 
     source: str
     site: dict[str, Any]
@@ -117,6 +138,12 @@ class Results:
     candidates: list[AntennaResult]
     receiver: dict[str, Any]
     nside: int
+    target_results: list[TargetResult] = field(default_factory=list)
+    plan: Any = None
+    """The station plan (snrgain.plan.Plan)."""
+    uncertainty: dict[str, Any] = field(default_factory=dict)
+    """Which spreads were counted and how (JSON-ready)."""
+    beat_by_db: float = 3.0
     notices: list[Notice] = field(default_factory=list)
     cuts: PatternCuts | None = None
     lot_m: list[tuple[float, float]] | None = None
@@ -134,19 +161,27 @@ class Results:
 
         return [notice_text(n) for n in self.notices]
 
+    def antenna(self, name: str) -> AntennaResult:
+        """The antenna (reference or candidate) of that name."""
+        for a in self.antennas:
+            if a.name == name:
+                return a
+        raise KeyError(f"no antenna named {name!r}; the antennas are {[a.name for a in self.antennas]}")
+
     def __repr__(self) -> str:
-        best = self.candidates[0] if self.candidates else None
-        head = (
-            f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.targets)} target(s), "
-            f"{len(self.months)} month(s) x {len(self.utc_hours)} hour(s), reference {self.reference.name!r}, "
-            f"{len(self.candidates)} candidate(s)"
+        best = "; ".join(
+            f"{t.name}: {t.best!r} {self.antenna(t.best).snr_gain_median_db[i]:+.1f} dB"
+            for i, t in enumerate(self.target_results)
         )
-        if best is not None:
-            head += f"; first: {best.name!r} {best.summary_snr_gain_db:+.1f} dB"
+        head = (
+            f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.candidates)} candidates; {best}"
+        )
+        if self.plan is not None:
+            head += f"; plan: {len(self.plan.antennas)} antenna(s), {self.plan.gain_db:+.1f} dB"
         return head + (f"; {len(self.notices)} notice(s))" if self.notices else ")")
 
     def to_dict(self) -> dict[str, Any]:
-        """A JSON-ready dict (numbers as floats and lists; units in the keys)."""
+        """A JSON-ready dict (numbers as floats and lists; units in the keys; schema in README, "Output")."""
         noise = self.noise
         return jsonable(
             {
@@ -157,7 +192,9 @@ class Results:
                 "bandwidth_hz": self.bandwidth_hz,
                 "months": self.months,
                 "utc_hours": self.utc_hours,
-                "targets": self.targets,
+                "targets": [t | self._target_answer(i) for i, t in enumerate(self.targets)],
+                "plan": None if self.plan is None else self._plan_dict(),
+                "uncertainty": self.uncertainty,
                 "noise": {
                     "axes": ["month", "utc_hour"],
                     "components": noise.components,
@@ -170,11 +207,59 @@ class Results:
                 "receiver": self.receiver,
                 "nside": self.nside,
                 "reference": _antenna_dict(self.reference),
-                "ranking": [_antenna_dict(c) | {"rank": i + 1} for i, c in enumerate(self.candidates)],
+                "candidates": [_antenna_dict(c) for c in self.candidates],
+                "build": {c.name: c.build for c in self.candidates},
                 "local_sources": self.local_sources,
                 "warnings": self.warnings,
             }
         )
+
+    def _target_answer(self, i: int) -> dict[str, Any]:
+        tr = self.target_results[i]
+        rows = []
+        for name in tr.ranking:
+            a = self.antenna(name)
+            rows.append(
+                {
+                    "name": name,
+                    "snr_gain_db": {
+                        "median": a.snr_gain_median_db[i],
+                        "p10": a.snr_gain_p10_db[i],
+                        "p90": a.snr_gain_p90_db[i],
+                        "nominal": a.snr_gain_nominal_db[i],
+                    },
+                    "probability_beats_reference": a.probability_beats[i],
+                    "rdf_db": a.rdf_db[i],
+                    "front_to_back_db": a.front_to_back_db[i],
+                    "gain_toward_target_dbi": a.gain_dbi[i],
+                }
+            )
+        return {"ranking": rows, "best": {"name": tr.best, "runner_up": tr.runner_up, "margin_db": tr.margin_db}}
+
+    def _plan_dict(self) -> dict[str, Any]:
+        p = self.plan
+        return {
+            "antennas": p.antennas,
+            "added_db": p.added_db,
+            "gain_db": p.gain_db,
+            "method": p.method,
+            "max_antennas": p.max_antennas,
+            "by_target": [
+                {
+                    "target": self.targets[t]["name"],
+                    "served_by": [
+                        {
+                            "antenna": s.antenna,
+                            "months": s.months,
+                            "utc_hours": s.utc_hours,
+                            "snr_gain_db": s.snr_gain_db,
+                        }
+                        for s in rows
+                    ],
+                }
+                for t, rows in sorted(p.by_target.items())
+            ],
+        }
 
 
 def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
@@ -182,9 +267,12 @@ def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
         "name": a.name,
         "family": a.family,
         "parameters": a.parameters,
-        "summary_snr_gain_db": a.summary_snr_gain_db,
-        "worst_snr_gain_db": a.worst_snr_gain_db,
         "snr_gain_db": {"axes": ["target", "month", "utc_hour"], "values": a.snr_gain_db},
+        "snr_gain_median_db": a.snr_gain_median_db,
+        "snr_gain_p10_db": a.snr_gain_p10_db,
+        "snr_gain_p90_db": a.snr_gain_p90_db,
+        "snr_gain_nominal_db": a.snr_gain_nominal_db,
+        "probability_beats_reference": a.probability_beats,
         "gain_toward_target_dbi": a.gain_dbi,
         "mean_gain_dbi": a.mean_gain_dbi,
         "rdf_db": a.rdf_db,
@@ -222,9 +310,23 @@ def jsonable(x):
     return x
 
 
-def rank(candidates: list[AntennaResult]) -> list[AntennaResult]:
-    """Candidates best first, by the weighted mean SNR gain over targets and hours."""
-    return sorted(candidates, key=lambda r: -r.summary_snr_gain_db)
+def rank_for_target(
+    candidates: list[AntennaResult], target_index: int, target_name: str, reference: AntennaResult
+) -> TargetResult:
+    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up."""
+    order = sorted(candidates, key=lambda a: -a.snr_gain_median_db[target_index])
+    runner = order[1] if len(order) > 1 else reference
+    margin = float(order[0].snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
+    return TargetResult(target_name, [a.name for a in order], order[0].name, runner.name, margin)
 
 
-__all__ = ["Results", "AntennaResult", "Notice", "PatternCuts", "SCHEMA_VERSION", "jsonable", "rank"]
+__all__ = [
+    "Results",
+    "AntennaResult",
+    "TargetResult",
+    "Notice",
+    "PatternCuts",
+    "SCHEMA_VERSION",
+    "jsonable",
+    "rank_for_target",
+]

@@ -12,10 +12,10 @@ from __future__ import annotations
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Literal
+from typing import Annotated, Any, Literal
 
 import numpy as np
-from pydantic import Field, ValidationError, field_validator, model_validator
+from pydantic import AfterValidator, Field, ValidationError, field_validator, model_validator
 
 from snrgain import chain as chainmod
 from snrgain import noise as noisemod
@@ -35,10 +35,11 @@ from snrgain.fields import (
     PlanPoint,
     PowerDbm,
     StrictModel,
+    ground_spread,
     make_ground,
     quantity,
 )
-from snrgain.ground import C_M_PER_S, Ground
+from snrgain.ground import C_M_PER_S, Ground, GroundSpread
 
 _MM = noisemod.ManMadeNoise
 _AT = noisemod.AtmosphericNoise
@@ -73,29 +74,35 @@ class BandSection(StrictModel):
     bandwidth: quantity("frequency", ge=10.0, le=100e3) = 500.0
 
 
+def _check_months(v):
+    if v is None:
+        return v
+    bad = [m for m in v if not 1 <= m <= 12]
+    if bad:
+        raise ValueError(f"months must be 1..12; got {bad}")
+    if len(set(v)) != len(v):
+        raise ValueError(f"months are listed twice: {v}")
+    return v
+
+
+def _check_hours(v):
+    if v is None:
+        return v
+    bad = [h for h in v if not 0 <= h < 24]
+    if bad:
+        raise ValueError(f"UTC hours must be in [0, 24); got {bad}")
+    if len(set(v)) != len(v):
+        raise ValueError(f"hours are listed twice: {v}")
+    return v
+
+
+Months = Annotated[list[int], Field(min_length=1), AfterValidator(_check_months)]
+Hours = Annotated[list[float], Field(min_length=1), AfterValidator(_check_hours)]
+
+
 class Time(StrictModel):
-    months: list[int] = Field(default_factory=lambda: [1], min_length=1)
-    utc_hours: list[float] = Field(default_factory=lambda: [0.0], min_length=1)
-
-    @field_validator("months")
-    @classmethod
-    def _months(cls, v):
-        bad = [m for m in v if not 1 <= m <= 12]
-        if bad:
-            raise ValueError(f"months must be 1..12; got {bad}")
-        if len(set(v)) != len(v):
-            raise ValueError(f"months are listed twice: {v}")
-        return v
-
-    @field_validator("utc_hours")
-    @classmethod
-    def _hours(cls, v):
-        bad = [h for h in v if not 0 <= h < 24]
-        if bad:
-            raise ValueError(f"UTC hours must be in [0, 24); got {bad}")
-        if len(set(v)) != len(v):
-            raise ValueError(f"hours are listed twice: {v}")
-        return v
+    months: Months = Field(default_factory=lambda: [1])
+    utc_hours: Hours = Field(default_factory=lambda: [0.0])
 
 
 class Sector(StrictModel):
@@ -162,9 +169,13 @@ class LocalSource(StrictModel):
     spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
     fa: Decibels | None = None
+    uncertainty: Decibels = 0.0
+    """How uncertain the level is: the 10-90 % half-width, like a P.372 decile deviation [dB]."""
 
     @model_validator(mode="after")
     def _one_level(self):
+        if not 0.0 <= self.uncertainty <= 30.0:
+            raise ValueError(f"uncertainty must lie between 0 and 30 dB; got {self.uncertainty:g} dB")
         if (self.level is None) == (self.fa is None):
             raise ValueError(
                 "give exactly one of level (received on the reference antenna: '-95 dBm', 'S7') "
@@ -189,6 +200,10 @@ class Target(StrictModel):
     longitude: Longitude | None = None
     layer_height: quantity("length", ge=80e3, le=1000e3) = targetmod.DEFAULT_LAYER_HEIGHT_M
     min_elevation: Elevation = targetmod.DEFAULT_MIN_ELEVATION_RAD
+    months: Months | None = None
+    """The months this target is listened for (default: [time] months)."""
+    utc_hours: Hours | None = None
+    """The UTC hours this target is listened at (default: [time] utc_hours)."""
 
     @field_validator("elevation", mode="before")
     @classmethod
@@ -279,6 +294,31 @@ class Compute(StrictModel):
     nside: Literal[8, 16, 32, 64, 128] = 32
 
 
+class UncertaintySection(StrictModel):
+    ground: bool = True
+    """Spread the ground over its class's documented spread or the ranges given in [site] ground."""
+    noise_deciles: bool = True
+    """Spread man-made, atmospheric and galactic noise over their P.372 decile deviations."""
+    hours: bool = True
+    """Count hour-to-hour variation (else the hours are averaged first)."""
+    samples: int = Field(default=400, ge=20, le=20000)
+    """Draws of the noise levels per ground (fixed seed: the same file gives the same numbers)."""
+    seed: int = Field(default=1, ge=0, le=2**31 - 1)
+    beat_by: Decibels = 3.0
+    """The margin over the reference whose probability is reported [dB]."""
+
+    @model_validator(mode="after")
+    def _beat(self):
+        if not 0.0 <= self.beat_by <= 30.0:
+            raise ValueError(f"beat_by must lie between 0 and 30 dB; got {self.beat_by:g} dB")
+        return self
+
+
+class PlanSection(StrictModel):
+    max_antennas: int | None = Field(default=None, ge=1, le=64)
+    """The most receiving antennas to build beside the reference (default: as many as help)."""
+
+
 class ScenarioModel(StrictModel):
     site: SiteSection
     band: BandSection
@@ -290,6 +330,8 @@ class ScenarioModel(StrictModel):
     receiver: Receiver = Receiver()
     chain: ChainSection = ChainSection()
     compute: Compute = Compute()
+    uncertainty: UncertaintySection = UncertaintySection()
+    plan: PlanSection = PlanSection()
 
 
 # -- the resolved scenario --------------------------------------------------------
@@ -297,13 +339,15 @@ class ScenarioModel(StrictModel):
 
 @dataclass(frozen=True)
 class Site:
-    """Where the station is: name, place [deg], ground (None: perfect), lot outline [m east, m north]."""
+    """Where the station is: name, place [deg], ground (None: perfect) and how uncertain it is, lot outline
+    [m east, m north]."""
 
     name: str
     latitude_deg: float
     longitude_deg: float
     ground: Ground | None
     lot_m: tuple[tuple[float, float], ...] | None = None
+    ground_spread: GroundSpread | None = None
 
 
 @dataclass(frozen=True)
@@ -321,6 +365,22 @@ class Times:
     months: tuple[int, ...]
     utc_hours: tuple[float, ...]
 
+    def mask(self, grid: Times) -> np.ndarray:
+        """Which cells of a (months, hours) grid these times cover, shape (months, hours)."""
+        return np.isin(grid.months, self.months)[:, None] & np.isin(grid.utc_hours, self.utc_hours)[None, :]
+
+
+@dataclass(frozen=True)
+class Uncertainty:
+    """Which spreads to count (see README, "How sure"), the draws and the margin whose probability is reported."""
+
+    ground: bool = True
+    noise_deciles: bool = True
+    hours: bool = True
+    samples: int = 400
+    seed: int = 1
+    beat_by_db: float = 3.0
+
 
 @dataclass(frozen=True)
 class Scenario:
@@ -337,12 +397,17 @@ class Scenario:
     targets: tuple[targetmod.TargetDirections, ...]
     target_weights: np.ndarray
     """Targets' weights, adding to 1 [-]."""
+    target_times: tuple[Times, ...]
+    """When each target is listened for; ``times`` is their union, the grid the sky is built on."""
     reference: Antenna
     candidates: tuple[Antenna, ...]
     chains: tuple[chainmod.Chain, ...]
     chain: chainmod.Chain
     receiver: rx.Receiver
     nside: int
+    uncertainty: Uncertainty = Uncertainty()
+    max_antennas: int | None = None
+    """The most receiving antennas the station plan may add to the reference (None: as many as help)."""
 
     @property
     def antennas(self) -> list[Antenna]:
@@ -483,6 +548,15 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
         for c in chains
     ]
     site = model.site
+    default = Times(tuple(model.time.months), tuple(model.time.utc_hours))
+    target_times = tuple(
+        Times(tuple(t.months or default.months), tuple(t.utc_hours or default.utc_hours)) for t in model.target
+    )
+    union = Times(
+        tuple(sorted({m for tt in target_times for m in tt.months})),
+        tuple(sorted({h for tt in target_times for h in tt.utc_hours})),
+    )
+    u = model.uncertainty
     return Scenario(
         source=label,
         site=Site(
@@ -491,9 +565,11 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
             site.longitude,
             make_ground(site.ground),
             None if site.lot is None else tuple(site.lot),
+            ground_spread(site.ground),
         ),
         band=Band(model.band.frequency, model.band.bandwidth),
-        times=Times(tuple(model.time.months), tuple(model.time.utc_hours)),
+        times=union,
+        target_times=target_times,
         noise=_noise_settings(model.noise, data_dir),
         targets=tuple(tgts),
         target_weights=weights / weights.sum(),
@@ -503,6 +579,8 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
         chain=chain,
         receiver=receiver,
         nside=nside if nside is not None else model.compute.nside,
+        uncertainty=Uncertainty(u.ground, u.noise_deciles, u.hours, u.samples, u.seed, u.beat_by),
+        max_antennas=model.plan.max_antennas,
     )
 
 
@@ -541,7 +619,8 @@ def _noise_settings(n: Noise, data_dir: Path | None) -> noisemod.NoiseSettings:
         if not gal.enabled
         else noisemod.GalacticNoise(gal.critical_frequency_day, gal.critical_frequency_night, gal.layer_height),
         local=tuple(
-            noisemod.LocalSource(src.name, src.bearing, src.elevation, src.spread, src.fa, src.level) for src in n.local
+            noisemod.LocalSource(src.name, src.bearing, src.elevation, src.spread, src.fa, src.level, src.uncertainty)
+            for src in n.local
         ),
         p372_dir=data_dir,
     )

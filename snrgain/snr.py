@@ -9,10 +9,13 @@ Definitions used throughout (DESIGN.md, "SNR"):
 - SNR gain of A over the reference R: (S_A / N_A) / (S_R / N_R) with
   N = k b (T_A + T_rx).
 - RDF (receiving directivity factor): gain toward the target over the gain
-  averaged over the upper hemisphere, in dB.  The average runs over the half
-  of the sphere above ground (where G is defined; below the horizon G = 0),
-  so an isotropic antenna has RDF 0 dB and, under a uniform sky with no
-  receiver noise, the SNR gain is the difference of the RDFs.
+  averaged over the whole sphere (4 pi sr, the gain being 0 below the
+  horizon), in dB: the scale of the trade's RDF tables.  A quarter-wave
+  vertical over a perfect ground reads 5.15 dB toward the horizon and a short
+  one 4.77 dB (their directivities: J. D. Kraus, "Antennas", 2nd ed. (1988),
+  Sections 5-6 and 16-3); an antenna with gain 1 over the upper hemisphere
+  reads 3.01 dB.  Under a uniform sky with no receiver noise, the SNR gain is
+  the difference of the RDFs.
 - Front-to-back: gain toward the target's principal direction over the gain
   at the same elevation from the opposite bearing, in dB.
 """
@@ -32,13 +35,18 @@ def hemisphere_mean_gain(gain_on_grid, grid: Directions) -> float:
     return float(np.dot(gain_on_grid, grid.solid_angle_sr) / (2.0 * np.pi))
 
 
+def sphere_mean_gain(gain_on_grid, grid: Directions) -> float:
+    """Gain averaged over the whole sphere, 0 below the horizon: sum(G dOmega) / (4 pi) [-] (the RDF's divisor)."""
+    return float(np.dot(gain_on_grid, grid.solid_angle_sr) / (4.0 * np.pi))
+
+
 def target_gain(gain_fn, target) -> float:
     """Weighted total gain toward a target's directions [-] (gain_fn(az, el) -> linear)."""
     return float(np.dot(target.weight, gain_fn(target.azimuth_rad, target.elevation_rad)))
 
 
 def rdf_db(gain_toward_target: float, mean_gain: float) -> float:
-    """RDF [dB]: gain toward the target over the hemisphere-averaged gain."""
+    """RDF [dB]: gain toward the target over the averaged gain (:func:`sphere_mean_gain` on the trade's scale)."""
     return 10.0 * np.log10(gain_toward_target / mean_gain)
 
 
@@ -86,7 +94,7 @@ class Gains:
 
     caches : one :class:`GainCache` per antenna (linear gain on any Directions)
     toward : weighted total gain toward each target [-], shape (antennas, targets)
-    mean : gain averaged over the upper hemisphere [-], shape (antennas,)
+    mean : gain averaged over the whole sphere (0 below the horizon) [-], shape (antennas,)
     """
 
     caches: list[GainCache]
@@ -98,7 +106,7 @@ def antenna_gains(antennas, freq_hz: float, grid: Directions, targets) -> Gains:
     """Gains of every antenna on the sky grid and toward every target at one frequency [Hz]."""
     caches = [GainCache(lambda az, el, a=a: a.gain_linear(freq_hz, az, el)) for a in antennas]
     toward = np.array([[target_gain(c.gain_fn, t) for t in targets] for c in caches]).reshape(len(caches), len(targets))
-    mean = np.array([hemisphere_mean_gain(c.on(grid), grid) for c in caches])
+    mean = np.array([sphere_mean_gain(c.on(grid), grid) for c in caches])
     return Gains(caches, toward, mean)
 
 

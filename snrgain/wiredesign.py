@@ -11,7 +11,8 @@ Pure functions over the long-wire families (snrgain.antennas.longwire):
   to 50 or 75 ohm coax and the mismatch loss of a chosen ratio.
 
 RDF here is toward the target directions under a uniform sky (the antenna's
-own directivity figure); the full noise sky is the ranking's business.
+own directivity figure, on the trade's whole-sphere scale, snrgain.snr); the
+full noise sky is the ranking's business.
 """
 
 from __future__ import annotations
@@ -51,7 +52,7 @@ def _target(target, bearing_rad) -> TargetDirections:
 def rdf_db(antenna, freq_hz: float, target: TargetDirections, grid: Directions) -> float:
     g = antenna.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad)
     toward = snr.target_gain(lambda az, el: antenna.gain_linear(freq_hz, az, el), target)
-    return snr.rdf_db(toward, snr.hemisphere_mean_gain(g, grid))
+    return snr.rdf_db(toward, snr.sphere_mean_gain(g, grid))
 
 
 def front_to_back_db(antenna, freq_hz: float, target: TargetDirections) -> float:

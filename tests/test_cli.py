@@ -28,11 +28,15 @@ def test_rank_json_schema_and_units(runner, demo_path):
     data = json.loads(res.stdout)
     assert data["schema_version"] == SCHEMA_VERSION
     assert data["frequency_hz"] == 1.83e6
-    first = data["ranking"][0]
-    assert first["rank"] == 1
-    assert {"summary_snr_gain_db", "rdf_db", "front_to_back_db", "noise_dbm", "margin_db"} <= set(first)
+    first = data["candidates"][0]
+    assert {"snr_gain_median_db", "rdf_db", "front_to_back_db", "noise_dbm", "margin_db"} <= set(first)
     assert len(first["snr_gain_db"]["values"]) == len(data["targets"])
-    assert data["ranking"][0]["summary_snr_gain_db"] >= data["ranking"][-1]["summary_snr_gain_db"]
+    for t in data["targets"]:  # per target: ranked by median, best first, the best named
+        medians = [row["snr_gain_db"]["median"] for row in t["ranking"]]
+        assert medians == sorted(medians, reverse=True) and t["best"]["name"] == t["ranking"][0]["name"]
+        assert {"p10", "p90", "nominal"} <= set(t["ranking"][0]["snr_gain_db"])
+    assert set(data["plan"]) >= {"antennas", "added_db", "gain_db", "by_target"}
+    assert set(data["build"]) == {c["name"] for c in data["candidates"]}
 
 
 def test_json_matches_results_to_dict(runner, demo_path):
@@ -46,8 +50,8 @@ def test_rank_csv(runner, demo_path):
     res = runner.invoke(cli, ["rank", str(demo_path), "--format", "csv"])
     assert res.exit_code == 0
     lines = res.stdout.strip().splitlines()
-    assert lines[0].startswith("rank,antenna,family,target,month,utc_hour,snr_gain_db")
-    assert len(lines) == 1 + 6 * 2 * 2 * 8  # header + antennas x targets x months x hours
+    assert lines[0].startswith("target,rank_for_target,antenna,family,month,utc_hour,snr_gain_db")
+    assert len(lines) == 1 + 2 * 6 * 2 * 8  # header + targets x antennas x months x hours (all listened)
 
 
 def test_output_file_not_overwritten_without_flag(runner, demo_path, tmp_path):
@@ -110,7 +114,7 @@ def test_new_writes_a_starter_that_runs(runner, tmp_path):
     assert "power lines" in path.read_text()
     assert runner.invoke(cli, ["check", str(path)]).exit_code == 0
     res = runner.invoke(cli, ["rank", str(path), "--format", "json"])
-    assert res.exit_code == 0 and json.loads(res.stdout)["ranking"]
+    assert res.exit_code == 0 and json.loads(res.stdout)["targets"][0]["ranking"]
     res = runner.invoke(cli, ["new", str(path)])
     assert res.exit_code == 2 and "--overwrite" in res.stderr
 

@@ -78,10 +78,11 @@ def test_noise_sky_panels(summer, tmp_path):
 
 def test_snr_over_hours_with_decile_bands(summer, tmp_path):
     fig = plots.snr_over_hours(summer)
+    assert len(fig.axes) == len(summer.targets)  # one panel per target
     ax = fig.axes[0]
     assert len(_labelled_lines(ax)) == len(summer.candidates) + 1
     assert len(ax.collections) == len(summer.candidates)  # one decile band per candidate
-    assert "UTC" in ax.get_xlabel()
+    assert "UTC" in fig.axes[-1].get_xlabel()
     assert _png_size(fig, tmp_path, "hours") > 10_000
     plt.close(fig)
 
@@ -167,7 +168,7 @@ def test_report_is_complete_html(results):
     chk = _Checker()
     chk.feed(text)
     assert not chk.errors, chk.errors[:5]
-    assert {"summary", "ranked", "figures", "models", "safety", "ranking"} <= chk.ids
+    assert {"summary", "ranked", "plan", "build", "figures", "models", "safety", "ranking"} <= chk.ids
     assert chk.svgs == len(report.figure_list(results))
     assert not chk.external  # opens without network access
     assert "<script" not in text
@@ -181,7 +182,7 @@ def test_report_command(tmp_path):
     runner = CliRunner()
     res = runner.invoke(cli, ["report", str(SCENARIOS / "marrow-fen.toml"), "-o", str(out)])
     assert res.exit_code == 0, res.output
-    assert "Ranked candidates" in out.read_text()
+    assert "The best antenna for each target" in out.read_text() and "Station plan" in out.read_text()
     res = runner.invoke(cli, ["report", str(SCENARIOS / "marrow-fen.toml"), "-o", str(out)])
     assert res.exit_code == 2 and "--overwrite" in res.stderr
 

@@ -28,6 +28,7 @@ from snrgain.files import OutputExistsError, write_atomic
 from snrgain.messages import notice_text
 from snrgain.pipeline import antenna_results, notices
 from snrgain.scenario import load
+from snrgain.spread import snr_spread
 from snrgain.units import QuantityError, parse_attenuation_db_per_100m, parse_quantity
 from tests.conftest import MINIMAL, P372_DIR, REPO, SCENARIOS, needs_p372
 
@@ -59,7 +60,8 @@ def test_gains_and_temperatures_of_an_isotropic_antenna():
     iso = from_spec({"family": "isotropic"})
     tgt = snrgain.targets.from_bearing("t", bearing_rad=0.5, elevation_lo_rad=0.1, elevation_hi_rad=0.3)
     gains = snr.antenna_gains([iso], 1.83e6, grid, [tgt])
-    assert gains.toward[0, 0] == pytest.approx(1.0) and gains.mean[0] == pytest.approx(1.0)
+    # 0 dBi above the horizon, 0 below: its gain averaged over the whole sphere is 1/2 (RDF 3.01 dB).
+    assert gains.toward[0, 0] == pytest.approx(1.0) and gains.mean[0] == pytest.approx(0.5)
     place = noisemod.Place(40.0, -75.0, 1.83e6)
     skies = noisemod.build_skies(noisemod.NoiseSettings(), place, months=[1], utc_hours=[0, 12], grid=grid)
     temps = snr.sky_temperatures(gains, skies)
@@ -162,27 +164,29 @@ def _steps(text):
 
 def test_antenna_results_reference_is_zero_and_steps_equal_evaluate():
     sc, gains, skies, temps = _steps(MINIMAL)
-    per = antenna_results(sc, gains, temps, skies)
+    per = antenna_results(sc, gains, temps, skies, snr_spread(sc, upper_hemisphere(sc.nside), skies, gains, temps))
     assert np.all(per[0].snr_gain_db == 0.0)
     whole = snrgain.evaluate(MINIMAL)
-    assert per[1].summary_snr_gain_db == pytest.approx(whole.candidates[0].summary_snr_gain_db, abs=1e-12)
+    assert per[1].snr_gain_median_db == pytest.approx(whole.candidates[0].snr_gain_median_db, abs=1e-12)
 
 
 def test_notices_are_data_and_worded_at_the_edge():
     # 40 dB of feed-line loss ahead of a 40 dB noise figure: the chain's floor lies far above the sky's noise.
     text = MINIMAL + '\n[receiver]\nnoise_figure = 40\n\n[chain]\nfeedline = { loss = "40 dB" }\n'
     sc, gains, skies, temps = _steps(text)
-    notes = notices(sc, antenna_results(sc, gains, temps, skies))
+    spread = snr_spread(sc, upper_hemisphere(sc.nside), skies, gains, temps)
+    notes = notices(sc, antenna_results(sc, gains, temps, skies, spread))
     limited = [n for n in notes if n.code == "receiver-limited"]
     assert limited and all(n.values["worst_margin_db"] < n.values["margin_target_db"] for n in limited)
     sentence = notice_text(limited[0])
     assert limited[0].antenna in sentence and f"{limited[0].values['worst_margin_db']:.1f} dB" in sentence
 
 
-def test_summary_ranks_by_mean_snr_gain_and_repr_is_compact():
+def test_summary_ranks_each_target_by_median_and_repr_is_compact():
     r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
-    means = [c.summary_snr_gain_db for c in r.candidates]
-    assert means == sorted(means, reverse=True)
+    for i, tr in enumerate(r.target_results):
+        medians = [r.antenna(n).snr_gain_median_db[i] for n in tr.ranking]
+        assert medians == sorted(medians, reverse=True)
     text = repr(r)
     assert "\n" not in text and len(text) < 300 and r.site["name"] in text
     assert all(len(repr(c)) < 200 for c in r.candidates)

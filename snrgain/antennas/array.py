@@ -200,8 +200,17 @@ class Array(Antenna):
             "element_family": self.elements[0].family,
             "bearing_deg": float(np.degrees(self.params.bearing)),
             "delays_ns": [float(t * 1e9) for t, _, _ in self.weights],
+            "phases_deg": [float(np.degrees(p)) for _, p, _ in self.weights],
+            "amplitudes": [float(a) for _, _, a in self.weights],
+            "positions_m": [[float(x), float(y)] for x, y in self.positions],
         }
         return out
+
+    def effective_delays_s(self, freq_hz: float) -> np.ndarray:
+        """Each element's delay with its phase turned into time at ``freq_hz`` (tau + phase / omega), the earliest
+        element at 0 [s]: what the phasing lines must delay."""
+        d = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in self.weights])
+        return d - d.min()
 
 
 @register("phased-verticals", PhasedVerticalsParams, "short verticals at positions, phased (end-fire or given delays)")

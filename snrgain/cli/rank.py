@@ -1,4 +1,4 @@
-"""``snrgain rank``: run a scenario and rank the candidates by SNR gain."""
+"""``snrgain rank``: run a scenario; per target the candidates ranked by SNR gain, the station plan."""
 
 from __future__ import annotations
 
@@ -23,8 +23,13 @@ from snrgain.cli.options import (
     type=click.Choice(["table", "json", "csv"]),
     default="table",
     show_default=True,
-    help="table: ranked table for the terminal; json: everything, units in the keys; csv: one row per "
-    "antenna, target, month and hour.",
+    help="table: per-target rankings and the station plan for the terminal; json: everything, units in the "
+    "keys (schema in README); csv: one row per target, antenna, month and hour listened.",
+)
+@click.option(
+    "--build",
+    is_flag=True,
+    help="Add the build sheet to the table: terminations, transformers, phasing delays and cable lengths.",
 )
 @click.option(
     "--output",
@@ -37,13 +42,16 @@ from snrgain.cli.options import (
 @nside_option
 @p372_dir_option
 @handle_errors
-def rank(scenario, fmt, output, overwrite, nside, p372_dir):
-    """Rank the SCENARIO's candidate antennas by SNR gain over its reference antenna.
+def rank(scenario, fmt, build, output, overwrite, nside, p372_dir):
+    """Which antenna to build for each target of SCENARIO, and how much better than its reference.
 
-    SNR gain is (S/N of the candidate) / (S/N of the reference) toward the
-    scenario's targets, with the noise sky of its site, months and hours and
-    the receiver's own noise; the table's summary is the mean in dB over
-    targets (weighted) and hours.
+    SNR gain is (S/N of the candidate) / (S/N of the reference) toward a
+    target, with the noise sky of the site at the target's months and hours
+    and the receiver's own noise.  For each target the candidates are ranked
+    by their median SNR gain, with its 10-90 % band over the ground, the
+    P.372 noise deciles and the hours ([uncertainty] in the scenario), and
+    the chance of beating the reference by 3 dB.  The station plan then names
+    the set of antennas to build and which serves which target at which hours.
     """
     from snrgain import output as out
     from snrgain.pipeline import evaluate
@@ -65,12 +73,12 @@ def rank(scenario, fmt, output, overwrite, nside, p372_dir):
             console = Console()
             if not console.is_terminal:
                 console = Console(width=120)
-            console.print(out.ranking_table(results))
+            console.print(out.ranking_table(results, build=build))
             return
         import io
 
         buf = Console(record=True, width=120, file=io.StringIO())
-        buf.print(out.ranking_table(results))
+        buf.print(out.ranking_table(results, build=build))
         text = buf.export_text()
     if output is None:
         click.echo(text, nl=False)

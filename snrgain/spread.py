@@ -1,0 +1,176 @@
+"""How sure: the spread of the SNR gain over what is not known exactly.
+
+Three sources of spread, each optional (``[uncertainty]`` in a scenario):
+
+- the ground: its conductivity and permittivity, each log-normal between
+  the 10 % and 90 % points of a named class's documented spread
+  (:data:`snrgain.ground.CLASS_SPREAD_FACTOR`) or of the ranges given.  The
+  antennas standing on the site's ground are rebuilt at the nodes of a
+  three-point Gauss-Hermite rule in each (nine grounds; the centre node is
+  the nominal ground), e.g. M. Abramowitz and I. A. Stegun, "Handbook of
+  Mathematical Functions" (1964), 25.4.46;
+- the noise levels: each P.372 component (man-made, atmospheric, galactic)
+  spread over its decile deviations D_u, D_l as P.372 Section 8 does, a
+  normal distribution in dB whose upper half has sigma_u = D_u / 1.282 and
+  lower half sigma_l = D_l / 1.282 (1.282 is the standard normal's 90 %
+  point); a local source by its stated ``uncertainty`` the same way.  The
+  components vary independently, each by one draw for all hours, from a
+  fixed-seed generator: the same file gives the same numbers;
+- the hours: every listened hour counts as an equally likely sample (or,
+  turned off, the hours' SNR gains are averaged in dB first).
+
+Every draw applies to all antennas at once (the same sky), so the spread is
+that of the SNR gain itself, not of its parts.  A local source read on the
+reference antenna keeps that reading at every ground (its strength is
+rescaled so the reference still receives what was measured).  Pattern
+tables, arrays of elements and NEC wire structures keep their nominal ground.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from snrgain import snr
+from snrgain.antennas.base import variant
+from snrgain.ground import Ground, GroundSpread
+
+Z90 = 1.2815515655446004
+"""The standard normal's 90 % point: a decile deviation is Z90 standard deviations."""
+
+_GH3 = ((-np.sqrt(3.0), 1.0 / 6.0), (0.0, 2.0 / 3.0), (np.sqrt(3.0), 1.0 / 6.0))
+"""Three-point Gauss-Hermite rule for a standard normal variable: (node, weight)."""
+
+_FIXED_GROUND_FAMILIES = ("array", "wire-structure", "tabulated", "isotropic")
+
+
+@dataclass
+class SnrSpread:
+    """Per antenna and target (arrays (antennas, targets)): the SNR gain's median, 10 % and 90 % points [dB], and
+    the probability [-] that it reaches ``beat_by_db`` over the reference."""
+
+    median_db: np.ndarray
+    p10_db: np.ndarray
+    p90_db: np.ndarray
+    probability: np.ndarray
+    beat_by_db: float
+
+
+def ground_nodes(nominal: Ground | None, spread: GroundSpread | None) -> list[tuple[Ground | None, float]]:
+    """(ground, weight) nodes over the ground's spread; the nominal ground alone when there is none."""
+    if nominal is None or spread is None or spread.is_zero:
+        return [(nominal, 1.0)]
+    (s_lo, s_hi), (e_lo, e_hi) = spread.conductivity_s_per_m, spread.permittivity
+    ls, le = np.log(np.sqrt(s_lo * s_hi)), np.log(np.sqrt(e_lo * e_hi))
+    ws, we = np.log(s_hi / s_lo) / (2 * Z90), np.log(e_hi / e_lo) / (2 * Z90)
+    nodes = []
+    for zs, w1 in _GH3:
+        for ze, w2 in _GH3:
+            if zs == 0.0 and ze == 0.0:
+                nodes.append((nominal, w1 * w2))
+                continue
+            g = Ground(
+                float(np.exp(ls + zs * ws)),
+                float(np.clip(np.exp(le + ze * we), 1.0, 100.0)),
+                f"{nominal.name} (spread)",
+                spread.source,
+            )
+            nodes.append((g, w1 * w2))
+    return nodes
+
+
+def noise_offsets_db(
+    skies, local_uncertainty_db: dict[str, float], *, samples: int, seed: int, deciles: bool
+) -> np.ndarray:
+    """Draws of each component's level offset [dB], shape (draws, components, months, hours).
+
+    P.372 components use their decile deviations (when ``deciles``), local sources the uncertainty given.
+    One draw (all zeros) when nothing is uncertain.
+    """
+    nc, nm, nh = len(skies.names), len(skies.months), len(skies.utc_hours)
+    du = np.zeros((nc, nm, nh))
+    dl = np.zeros((nc, nm, nh))
+    for i, (name, kind) in enumerate(zip(skies.names, skies.kinds)):
+        if kind == "local":
+            du[i] = dl[i] = local_uncertainty_db.get(name, 0.0)
+        elif deciles:
+            du[i] = np.nan_to_num(skies.du_db[i])
+            dl[i] = np.nan_to_num(skies.dl_db[i])
+    if not (np.any(du) or np.any(dl)):
+        return np.zeros((1, nc, nm, nh))
+    z = np.random.default_rng(seed).standard_normal((samples, nc))[:, :, None, None]
+    return np.where(z > 0, z * du / Z90, z * dl / Z90)
+
+
+def _on_ground(sc, ground):
+    """The scenario's antennas with those on the site's ground moved to ``ground``."""
+    out = []
+    for ant in sc.antennas:
+        on_site = getattr(ant, "ground", "none") == sc.site.ground and ant.family not in _FIXED_GROUND_FAMILIES
+        out.append(variant(ant, ground=ground) if on_site and ground is not sc.site.ground else ant)
+    return out
+
+
+def snr_spread(sc, grid, skies, gains: snr.Gains, temps: snr.Temperatures) -> SnrSpread:
+    """The SNR gain's spread for every antenna and target of a resolved scenario (module docstring).
+
+    ``gains`` and ``temps`` are the nominal ones (reused at the centre node).
+    """
+    u = sc.uncertainty
+    nodes = ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None)
+    local = {s.name: s.uncertainty_db for s in sc.noise.local}
+    offsets = noise_offsets_db(skies, local, samples=u.samples, seed=u.seed, deciles=u.noise_deciles)
+    factors = 10.0 ** (offsets / 10.0)  # (draws, comps, months, hours)
+    measured = [skies.names.index(s.name) for s in sc.noise.local if s.level_dbm is not None]
+    t_chain = np.array([c.temperature_k for c in sc.chains])[None, :, None, None]
+    per_node = []
+    for ground, weight in nodes:
+        if ground is sc.site.ground:
+            g, t = gains, temps
+        else:
+            g = snr.antenna_gains(_on_ground(sc, ground), sc.freq_hz, grid, sc.targets)
+            t = snr.sky_temperatures(g, skies)
+            by = t.by_component.copy()
+            for c in measured:  # the reading on the reference antenna is what was measured
+                by[c] *= temps.by_component[c, 0] / by[c, 0]
+            t = snr.Temperatures(by, by.sum(axis=0))
+        noise = np.einsum("ncmh,camh->namh", factors, t.by_component) + t_chain  # (draws, ants, months, hours)
+        signal = g.toward[None, :, :, None, None]  # (1, ants, targets, 1, 1)
+        with np.errstate(divide="ignore"):
+            own = 10.0 * np.log10(signal / noise[:, :, None])
+        per_node.append((own - own[:, :1], weight))  # over the reference, (draws, ants, targets, months, hours)
+    n_ant, n_tgt = gains.toward.shape
+    out = {k: np.zeros((n_ant, n_tgt)) for k in ("median", "p10", "p90", "prob")}
+    for t_idx, times in enumerate(sc.target_times):
+        mask = times.mask(sc.times)
+        for a in range(n_ant):
+            values, weights = [], []
+            for gain, weight in per_node:
+                cells = gain[:, a, t_idx][:, mask]  # (draws, cells)
+                if not u.hours:
+                    cells = cells.mean(axis=1, keepdims=True)
+                values.append(cells.ravel())
+                weights.append(np.full(cells.size, weight / cells.size))
+            v, w = np.concatenate(values), np.concatenate(weights)
+            out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx] = weighted_quantiles(
+                v, w, (0.1, 0.5, 0.9)
+            )
+            out["prob"][a, t_idx] = float(np.sum(w[v >= u.beat_by_db]) / np.sum(w))
+    return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
+
+
+def weighted_quantiles(values, weights, quantiles) -> tuple[float, ...]:
+    """Quantiles of weighted samples (linear between the midpoints of the sorted samples' weights).
+
+    >>> weighted_quantiles([1.0, 2.0, 3.0], [1.0, 1.0, 1.0], (0.5,))
+    (2.0,)
+    >>> weighted_quantiles([5.0], [1.0], (0.1, 0.9))
+    (5.0, 5.0)
+    """
+    v = np.asarray(values, dtype=float)
+    w = np.asarray(weights, dtype=float)
+    order = np.argsort(v, kind="stable")
+    v, w = v[order], w[order]
+    cum = (np.cumsum(w) - 0.5 * w) / np.sum(w)
+    return tuple(float(np.interp(q, cum, v)) for q in quantiles)
