@@ -276,7 +276,13 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"phasing delays {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})")
         if b["family"] == "vertical":
             bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
-        out.append((a.name, "; ".join(bits) if bits else "a pattern table; nothing to compute"))
+        if not bits:
+            bits.append(
+                "a yardstick, not an antenna to build"
+                if b["family"] == "isotropic"
+                else "a pattern table: build it as its source describes"
+            )
+        out.append((a.name, "; ".join(bits)))
     return out
 
 

@@ -18,7 +18,8 @@ members adding less than :data:`MIN_ADDED_DB` are left out (nothing to gain
 from building them).  The added dB sum to V(S).
 
 The SNR gains used are the nominal ones (median ground and noise levels),
-hour by hour.
+hour by hour.  Yardsticks that cannot be built (the isotropic antenna) take
+no part.
 """
 
 from __future__ import annotations
@@ -70,8 +71,12 @@ def worth(gains: np.ndarray, masks: np.ndarray, weights: np.ndarray, members) ->
     return float(np.dot(weights, per_target))
 
 
-def station_plan(names, gains, masks, weights, *, max_antennas: int | None = None, months=None, utc_hours=None) -> Plan:
+def station_plan(
+    names, gains, masks, weights, *, max_antennas: int | None = None, months=None, utc_hours=None, buildable=None
+) -> Plan:
     """The station plan (module docstring) from per-cell SNR gains; ``names[0]`` is the reference.
+
+    ``buildable[i]`` False keeps antenna i out of the plan (a yardstick).
 
     >>> g = np.zeros((3, 2, 1, 2))
     >>> g[1, 0] = 6.0     # antenna 1 gains 6 dB toward target 0
@@ -83,9 +88,9 @@ def station_plan(names, gains, masks, weights, *, max_antennas: int | None = Non
     >>> station_plan(["ref", "a", "b"], g, masks, np.array([0.5, 0.5]), max_antennas=1).antennas
     ['a']
     """
-    n = len(names) - 1
+    candidates = [i for i in range(1, len(names)) if buildable is None or buildable[i]]
+    n = len(candidates)
     limit = n if max_antennas is None else min(max_antennas, n)
-    candidates = list(range(1, n + 1))
     if n <= EXACT_LIMIT:
         method = "exact"
         best, best_value = (), 0.0

@@ -280,6 +280,14 @@ def _with_gaps(hours, values):
     return np.array(out_h), np.array(out_v)
 
 
+def _mean_over_months(x):
+    """Mean over the first axis of the finite values; NaN where there are none (no warning)."""
+    x = np.asarray(x, dtype=float)
+    n = np.isfinite(x).sum(axis=0)
+    total = np.where(np.isfinite(x), x, 0.0).sum(axis=0)
+    return np.where(n > 0, total / np.maximum(n, 1), np.nan)
+
+
 def snr_over_hours(results, *, ax=None):
     """SNR gain over the reference against UTC hour, one panel per target (mean over its months), with the band of
     atmospheric noise at its P.372 deciles; gaps where the target is not listened for.
@@ -294,15 +302,14 @@ def snr_over_hours(results, *, ax=None):
     colors = _colors(len(results.candidates))
     for i, (t, axi) in enumerate(zip(results.targets, axes)):
         for a, col in zip(results.candidates, colors):
-            with np.errstate(invalid="ignore"):
-                mean = np.nanmean(a.snr_gain_db[i], axis=0) if np.any(np.isfinite(a.snr_gain_db[i])) else None
-            if mean is None:
+            if not np.any(np.isfinite(a.snr_gain_db[i])):
                 continue
+            mean = _mean_over_months(a.snr_gain_db[i])
             h, v = _with_gaps(hours, mean)
             axi.plot(h, v, marker="o", ms=4, color=col, label=a.name)
             if a.snr_gain_atmospheric_deciles_db is not None:
                 atm = True
-                hi, lo = (np.nanmean(d[i], axis=0) for d in a.snr_gain_atmospheric_deciles_db)
+                hi, lo = (_mean_over_months(d[i]) for d in a.snr_gain_atmospheric_deciles_db)
                 h1, v_hi = _with_gaps(hours, hi)
                 _, v_lo = _with_gaps(hours, lo)
                 axi.fill_between(h1, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=col, alpha=0.15)

@@ -299,6 +299,8 @@ class UncertaintySection(StrictModel):
     """Spread the ground over its class's documented spread or the ranges given in [site] ground."""
     noise_deciles: bool = True
     """Spread man-made, atmospheric and galactic noise over their P.372 decile deviations."""
+    local_sources: bool = True
+    """Spread local sources over the uncertainty given with each."""
     hours: bool = True
     """Count hour-to-hour variation (else the hours are averaged first)."""
     samples: int = Field(default=400, ge=20, le=20000)
@@ -376,6 +378,7 @@ class Uncertainty:
 
     ground: bool = True
     noise_deciles: bool = True
+    local_sources: bool = True
     hours: bool = True
     samples: int = 400
     seed: int = 1
@@ -579,7 +582,15 @@ def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str |
         chain=chain,
         receiver=receiver,
         nside=nside if nside is not None else model.compute.nside,
-        uncertainty=Uncertainty(u.ground, u.noise_deciles, u.hours, u.samples, u.seed, u.beat_by),
+        uncertainty=Uncertainty(
+            ground=u.ground,
+            noise_deciles=u.noise_deciles,
+            local_sources=u.local_sources,
+            hours=u.hours,
+            samples=u.samples,
+            seed=u.seed,
+            beat_by_db=u.beat_by,
+        ),
         max_antennas=model.plan.max_antennas,
     )
 

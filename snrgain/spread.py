@@ -119,7 +119,7 @@ def snr_spread(sc, grid, skies, gains: snr.Gains, temps: snr.Temperatures) -> Sn
     """
     u = sc.uncertainty
     nodes = ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None)
-    local = {s.name: s.uncertainty_db for s in sc.noise.local}
+    local = {s.name: s.uncertainty_db for s in sc.noise.local} if u.local_sources else {}
     offsets = noise_offsets_db(skies, local, samples=u.samples, seed=u.seed, deciles=u.noise_deciles)
     factors = 10.0 ** (offsets / 10.0)  # (draws, comps, months, hours)
     measured = [skies.names.index(s.name) for s in sc.noise.local if s.level_dbm is not None]

@@ -27,11 +27,12 @@ def check(scenario, p372_dir):
         f"  {sc.freq_hz / 1e6:g} MHz, {sc.bandwidth_hz:g} Hz; {len(sc.times.months)} month(s) x "
         f"{len(sc.times.utc_hours)} hour(s)"
     )
-    for t in sc.targets:
+    for t, tt in zip(sc.targets, sc.target_times):
         extra = f", {t.distance_m / 1e3:.0f} km, {t.hops[0]}-{t.hops[1]} hops" if t.distance_m else ""
+        when = f"months {', '.join(str(m) for m in tt.months)}; UTC {', '.join(f'{h:g}' for h in tt.utc_hours)}"
         click.echo(
             f"  target {t.name!r}: bearing {np.degrees(t.bearing_rad):.1f} deg, elevation "
-            f"{np.degrees(t.elevation_rad.min()):.1f}-{np.degrees(t.elevation_rad.max()):.1f} deg{extra}"
+            f"{np.degrees(t.elevation_rad.min()):.1f}-{np.degrees(t.elevation_rad.max()):.1f} deg{extra}; {when}"
         )
     click.echo(f"  reference: {sc.reference.name} ({sc.reference.family})")
     for a in sc.candidates:
