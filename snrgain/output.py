@@ -11,6 +11,8 @@ import numpy as np
 from snrgain.results import Results
 from snrgain.units import s_units
 
+FT_PER_M = 1 / 0.3048
+
 
 def to_json(results: Results) -> str:
     """JSON text of ``results.to_dict()``: sorted keys, non-finite numbers as null."""
@@ -101,12 +103,21 @@ def hours_text(hours) -> str:
     return ", ".join(parts) + " UTC"
 
 
+def ground_text(site: dict) -> str:
+    """The site's ground in words: its name and constants."""
+    if site["ground"] == "perfect":
+        return "perfect"
+    sigma, eps = site["ground_conductivity_s_per_m"], site["ground_permittivity"]
+    name = "" if site["ground"] == "custom" else f"{site['ground']}, "
+    return f"{name}{sigma * 1e3:.3g} mS/m, relative permittivity {eps:.3g}"
+
+
 def _header(r: Results):
     from rich.text import Text
 
     head = Text()
     head.append(f"{r.site['name']}", style="bold")
-    head.append(f"  {r.site['latitude_deg']:.2f}, {r.site['longitude_deg']:.2f}  ground: {r.site['ground']}\n")
+    head.append(f"  {r.site['latitude_deg']:.2f}, {r.site['longitude_deg']:.2f}  ground: {ground_text(r.site)}\n")
     head.append(f"{r.freq_hz / 1e6:g} MHz in {r.bandwidth_hz:g} Hz; reference: {r.reference.name}\n")
     noise_bits = []
     for name, c in r.noise.components.items():
@@ -257,8 +268,14 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
         bits = []
         if "length_m" in b and b["family"] != "terminated-loop":
             bits.append(f"{b['length_m']:.1f} m ({b['length_ft']:.0f} ft)")
-        if "height_m" in b:
-            bits.append(f"height {b['height_m']:g} m")
+        if b["family"] == "bog":
+            bits.append(
+                "insulated wire laid on the ground"
+                if not b.get("depth_m")
+                else f"insulated wire buried {100 * b['depth_m']:.0f} cm deep"
+            )
+        elif "height_m" in b:
+            bits.append(f"height {b['height_m']:.2f} m ({b['height_m'] * FT_PER_M:.1f} ft)")
         if "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
         if b["family"] == "terminated-loop":

@@ -15,6 +15,7 @@ from datetime import UTC, datetime
 import numpy as np
 
 from snrgain import plots
+from snrgain.output import ground_text
 from snrgain.units import s_units
 
 SAFETY = [
@@ -98,7 +99,7 @@ def _f(x, fmt="{:+.1f}") -> str:
 def _summary(r) -> str:
     rows = [
         ("Site", f"{_e(r.site['name'])}, {r.site['latitude_deg']:.3f}&deg;, {r.site['longitude_deg']:.3f}&deg;"),
-        ("Ground", _e(r.site["ground"])),
+        ("Ground", _e(ground_text(r.site))),
         ("Band", f"{r.freq_hz / 1e6:g} MHz, {r.bandwidth_hz:g} Hz bandwidth"),
         ("Months", ", ".join(str(m) for m in r.months)),
         ("UTC hours", ", ".join(f"{h:g}" for h in r.utc_hours)),
@@ -191,7 +192,7 @@ def _ranking(r) -> str:
                 _f(a.rdf_db[i]),
                 _f(np.clip(a.front_to_back_db[i], -99, 99)),
                 _f(noise, "{:.1f}"),
-                s_units(noise),
+                _e(s_units(noise)),
             ]
             row = [f"<td>{c}</td>" if not str(c).startswith("<td") else c for c in cells]
             row.append(f"<td class='warn'>{margin:.1f} !</td>" if a.receiver_limited else f"<td>{margin:.1f}</td>")

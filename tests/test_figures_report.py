@@ -232,3 +232,12 @@ def test_report_renders_in_headless_chromium(results, tmp_path):
         timeout=120,
     )
     assert shot.exists() and shot.stat().st_size > 20_000
+
+
+def test_report_escapes_the_s_meter_reading_below_s1():
+    # "<S1" must reach the page as text, not as a tag (a flag's output sits below S1 on quiet sites).
+    r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
+    for a in r.antennas:
+        a.noise_dbm = a.noise_dbm - 60.0  # every antenna far below S1
+    html = report.render(r)
+    assert "&lt;S1" in html and "<S1" not in html
