@@ -83,6 +83,18 @@ Decibels = Annotated[float, BeforeValidator(_decibels)]
 """A ratio in dB ("12 dB" or a bare number)."""
 
 
+def decibels(lo: float, hi: float):
+    """A ratio in dB within [lo, hi]: the message reads "must lie between 0 and 10 dB; got 12 dB"."""
+
+    def check(value):
+        x = parse_db(value)
+        if not lo <= x <= hi:
+            raise ValueError(f"must lie between {lo:g} and {hi:g} dB; got {x:g} dB")
+        return x
+
+    return Annotated[float, BeforeValidator(check)]
+
+
 def _power(value):
     return parse_power_dbm(value)
 

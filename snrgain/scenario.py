@@ -35,6 +35,7 @@ from snrgain.fields import (
     PlanPoint,
     PowerDbm,
     StrictModel,
+    decibels,
     ground_spread,
     make_ground,
     quantity,
@@ -169,13 +170,11 @@ class LocalSource(StrictModel):
     spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
     fa: Decibels | None = None
-    uncertainty: Decibels = 0.0
+    uncertainty: decibels(0.0, 30.0) = 0.0
     """How uncertain the level is: the 10-90 % half-width, like a P.372 decile deviation [dB]."""
 
     @model_validator(mode="after")
     def _one_level(self):
-        if not 0.0 <= self.uncertainty <= 30.0:
-            raise ValueError(f"uncertainty must lie between 0 and 30 dB; got {self.uncertainty:g} dB")
         if (self.level is None) == (self.fa is None):
             raise ValueError(
                 "give exactly one of level (received on the reference antenna: '-95 dBm', 'S7') "
@@ -232,7 +231,7 @@ class Target(StrictModel):
 
 
 class Receiver(StrictModel):
-    noise_figure: Decibels | None = None
+    noise_figure: decibels(0.0, 40.0) | None = None
     noise_floor: PowerDbm | None = None
     margin_target: Decibels = rx.DEFAULT_MARGIN_TARGET_DB
 
@@ -240,23 +239,19 @@ class Receiver(StrictModel):
     def _one(self):
         if self.noise_figure is not None and self.noise_floor is not None:
             raise ValueError("give noise_figure or noise_floor (measured in the band's bandwidth), not both")
-        if self.noise_figure is not None and not 0.0 <= self.noise_figure <= 40.0:
-            raise ValueError(f"noise_figure must be between 0 and 40 dB; got {self.noise_figure:g} dB")
         return self
 
 
 class Feedline(StrictModel):
     cable: str | None = None
     length: quantity("length", ge=0.0, le=10e3) | None = None
-    loss: Decibels | None = None
+    loss: decibels(0.0, 40.0) | None = None
 
     @model_validator(mode="after")
     def _one(self):
         if self.loss is not None:
             if self.cable is not None or self.length is not None:
                 raise ValueError("give the feed line's total loss, or its cable and length, not both")
-            if not 0 <= self.loss <= 40:
-                raise ValueError(f"loss must lie between 0 and 40 dB; got {self.loss:g} dB")
         else:
             if self.cable is None or self.length is None:
                 raise ValueError("a feed line needs cable and length (or its total loss)")
@@ -265,29 +260,15 @@ class Feedline(StrictModel):
 
 
 class Preamp(StrictModel):
-    gain: Decibels
-    noise_figure: Decibels
+    gain: decibels(0.0, 50.0)
+    noise_figure: decibels(0.0, 20.0)
     position: Literal["antenna", "receiver"] = "receiver"
-
-    @model_validator(mode="after")
-    def _ranges(self):
-        if not 0 <= self.gain <= 50:
-            raise ValueError(f"gain must lie between 0 and 50 dB; got {self.gain:g} dB")
-        if not 0 <= self.noise_figure <= 20:
-            raise ValueError(f"noise_figure must lie between 0 and 20 dB; got {self.noise_figure:g} dB")
-        return self
 
 
 class ChainSection(StrictModel):
-    transformer_loss: Decibels = 0.0
+    transformer_loss: decibels(0.0, 10.0) = 0.0
     feedline: Feedline | None = None
     preamp: Preamp | None = None
-
-    @model_validator(mode="after")
-    def _loss(self):
-        if not 0 <= self.transformer_loss <= 10:
-            raise ValueError(f"transformer_loss must lie between 0 and 10 dB; got {self.transformer_loss:g} dB")
-        return self
 
 
 class Compute(StrictModel):
@@ -306,14 +287,8 @@ class UncertaintySection(StrictModel):
     samples: int = Field(default=400, ge=20, le=20000)
     """Draws of the noise levels per ground (fixed seed: the same file gives the same numbers)."""
     seed: int = Field(default=1, ge=0, le=2**31 - 1)
-    beat_by: Decibels = 3.0
+    beat_by: decibels(0.0, 30.0) = 3.0
     """The margin over the reference whose probability is reported [dB]."""
-
-    @model_validator(mode="after")
-    def _beat(self):
-        if not 0.0 <= self.beat_by <= 30.0:
-            raise ValueError(f"beat_by must lie between 0 and 30 dB; got {self.beat_by:g} dB")
-        return self
 
 
 class PlanSection(StrictModel):
