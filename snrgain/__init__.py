@@ -11,7 +11,11 @@ stays quick and loads neither the sky machinery nor matplotlib.
 
 from importlib import import_module
 
+from snrgain.allocator import tune as _tune_allocator
+
 __version__ = "0.1.0"
+
+_tune_allocator()
 
 _LAZY = {
     "evaluate": "snrgain.pipeline",

@@ -25,6 +25,7 @@ from snrgain.antennas import FAMILIES, Antenna, SpecError
 from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import pydantic_problems
 from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES
+from snrgain.errors import ScenarioError
 from snrgain.fields import (
     Bearing,
     Decibels,
@@ -46,16 +47,6 @@ _MM = noisemod.ManMadeNoise
 _AT = noisemod.AtmosphericNoise
 _GAL = noisemod.GalacticNoise
 _SRC = noisemod.LocalSource
-
-
-class ScenarioError(ValueError):
-    """An invalid scenario: ``problems`` is a list of (field path, message)."""
-
-    def __init__(self, source: str, problems: list[tuple[str, str]]):
-        self.source = source
-        self.problems = problems
-        lines = [f"{source}: {path}: {msg}" if path else f"{source}: {msg}" for path, msg in problems]
-        super().__init__("\n".join(lines))
 
 
 # -- the sections ------------------------------------------------------------

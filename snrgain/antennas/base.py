@@ -19,15 +19,8 @@ from typing import Any, ClassVar
 import numpy as np
 from pydantic import ValidationError
 
+from snrgain.errors import SpecError
 from snrgain.fields import SI_CONTEXT, PlanPoint, StrictModel
-
-
-class SpecError(ValueError):
-    """An antenna spec that cannot be built; ``problems`` lists (field path, message)."""
-
-    def __init__(self, problems: list[tuple[str, str]]):
-        self.problems = problems
-        super().__init__("; ".join(f"{p}: {m}" if p else m for p, m in problems))
 
 
 class AntennaParams(StrictModel):
@@ -233,7 +226,7 @@ def from_si(family: str, **values) -> Antenna:
     >>> from_si("beverage", length=-1.0, height=2.5)
     Traceback (most recent call last):
     ...
-    snrgain.antennas.base.SpecError: length: must be > 0 m and <= 3000 m; got -1.0
+    snrgain.errors.SpecError: length: must be > 0 m and <= 3000 m; got -1.0
     """
     return build({"family": family, **values}, si=True)
 

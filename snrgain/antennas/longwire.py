@@ -58,6 +58,7 @@ neglected.  NEC-2 (PyNEC) is the independent check in the tests.
 
 from __future__ import annotations
 
+from collections import OrderedDict
 from dataclasses import dataclass
 from typing import Literal
 
@@ -164,47 +165,119 @@ def safe_expint(z, length):
 class PlaneWave:
     """A unit plane wave from (azimuth, elevation) seen by a wire of bearing b over a ground.
 
-    el : elevation as asked [rad] (negative below the horizon); el_c : clipped to [0, pi/2]
-    s : sin(el_c); dphi : azimuth - b [rad]; along : cos(el_c) cos(dphi), the wave's slowness along the wire
-    r_v, r_h : Fresnel coefficients at el_c; k : free-space wavenumber [1/m]
+    What depends on the elevation alone is held once per distinct elevation (a pattern grid has few of them)
+    and spread to the directions with ``inv``:
+
+    el : elevation as asked, per direction [rad] (negative below the horizon)
+    el_u : the distinct elevations, clipped to [0, pi/2] [rad]; inv : index into el_u of each direction
+    s_u, c_u : sin and cos of el_u; r_v, r_h : Fresnel coefficients at el_u
+    cos_dphi, sin_dphi : of azimuth - b, per direction; along : cos(el) cos(dphi), the wave's slowness along
+        the wire, per direction; k : free-space wavenumber [1/m]
     """
 
     k: float
     el: np.ndarray
-    el_c: np.ndarray
-    s: np.ndarray
-    dphi: np.ndarray
-    along: np.ndarray
+    el_u: np.ndarray
+    inv: np.ndarray
+    s_u: np.ndarray
+    c_u: np.ndarray
     r_v: np.ndarray
     r_h: np.ndarray
+    cos_dphi: np.ndarray
+    sin_dphi: np.ndarray
+    along: np.ndarray
+
+
+def distinct(values) -> tuple[np.ndarray, np.ndarray]:
+    """(distinct values, index of each value among them), like ``np.unique(..., return_inverse=True)`` but in one
+    linear pass when the values are already sorted either way (the rows of a pattern grid, HEALPix rings)."""
+    v = np.asarray(values, dtype=float).ravel()
+    if v.size > 1:
+        d = np.diff(v)
+        if np.all(d >= 0) or np.all(d <= 0):
+            starts = np.concatenate(([True], d != 0))
+            return v[starts], np.cumsum(starts) - 1
+    u, inv = np.unique(v, return_inverse=True)
+    return u, inv.ravel()
+
+
+@dataclass(frozen=True)
+class _Geometry:
+    """What a set of directions gives every antenna: distinct elevations, cos and sin of the azimuths."""
+
+    az: np.ndarray
+    el: np.ndarray
+    el_u: np.ndarray
+    inv: np.ndarray
+    c_u: np.ndarray
+    s_u: np.ndarray
+    ce: np.ndarray
+    cos_az: np.ndarray
+    sin_az: np.ndarray
+
+
+_GEOMETRY: OrderedDict = OrderedDict()
+_GEOMETRY_SLOTS = 8
+
+
+def _geometry(az: np.ndarray, el: np.ndarray) -> _Geometry:
+    """The geometry of a direction set, kept for the last few sets (a pattern grid or a sky is asked for again
+    and again, by every antenna and every design of a sweep).  A hit is checked against the stored copies, so an
+    array changed in place is never mistaken for the one it was."""
+    key = (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    hit = _GEOMETRY.get(key)
+    if hit is not None and np.array_equal(hit.az, az) and np.array_equal(hit.el, el):
+        _GEOMETRY.move_to_end(key)
+        return hit
+    el_u, inv = distinct(np.clip(el, 0.0, np.pi / 2))
+    inv = inv.reshape(el.shape)
+    c_u = np.cos(el_u)
+    geo = _Geometry(az.copy(), el.copy(), el_u, inv, c_u, np.sin(el_u), c_u[inv], np.cos(az), np.sin(az))
+    _GEOMETRY[key] = geo
+    if len(_GEOMETRY) > _GEOMETRY_SLOTS:
+        _GEOMETRY.popitem(last=False)
+    return geo
 
 
 def plane_wave(freq_hz: float, azimuth_rad, elevation_rad, *, bearing_rad: float, ground) -> PlaneWave:
     """The incident-wave quantities every line-model family needs (see :class:`PlaneWave`)."""
     az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
-    el_c = np.clip(el, 0.0, np.pi / 2)
-    r_v, r_h = reflection_coefficients(ground, el_c, freq_hz)
-    dphi = az - bearing_rad
+    geo = _geometry(az, el)
+    r_v, r_h = reflection_coefficients(ground, geo.el_u, freq_hz)
+    cb, sb = np.cos(bearing_rad), np.sin(bearing_rad)
+    cos_dphi = geo.cos_az * cb + geo.sin_az * sb  # cos(az - b)
+    sin_dphi = geo.sin_az * cb - geo.cos_az * sb  # sin(az - b)
     return PlaneWave(
-        2 * np.pi * freq_hz / C_M_PER_S, el, el_c, np.sin(el_c), dphi, np.cos(el_c) * np.cos(dphi), r_v, r_h
+        2 * np.pi * freq_hz / C_M_PER_S,
+        el,
+        geo.el_u,
+        geo.inv,
+        geo.s_u,
+        geo.c_u,
+        r_v,
+        r_h,
+        cos_dphi,
+        sin_dphi,
+        geo.ce * cos_dphi,
     )
 
 
 def field_along_wire(w: PlaneWave, height_m: float) -> tuple[np.ndarray, np.ndarray]:
-    """Field component along a horizontal wire at a height, incident plus reflected (vertical, horizontal pol.)."""
-    up = np.exp(1j * w.k * height_m * w.s)
+    """Field along a horizontal wire at a height, incident plus reflected, as (f_v, f_h) per distinct elevation:
+    the components along the wire are ``-cos(dphi) * f_v[inv]`` (vertical polarization) and
+    ``-sin(dphi) * f_h[inv]`` (horizontal)."""
+    up = np.exp(1j * w.k * height_m * w.s_u)
     down = np.conj(up)  # k h s is real
-    a_h = -np.sin(w.dphi) * (up + w.r_h * down)
-    a_v = -w.s * np.cos(w.dphi) * (up - w.r_v * down)
-    return a_v, a_h
+    return w.s_u * (up - w.r_v * down), up + w.r_h * down
 
 
 def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
-    """EMF of a vertical conductor from z_low to z_high: cos(Delta) integral [e^{jkzs} + R_v e^{-jkzs}] dz."""
-    seg = safe_expint(1j * w.k * w.s, z_high_m)
+    """EMF of a vertical conductor from z_low to z_high, per distinct elevation:
+    cos(Delta) integral [e^{jkzs} + R_v e^{-jkzs}] dz."""
+    seg = safe_expint(1j * w.k * w.s_u, z_high_m)
     if z_low_m != 0.0:
-        seg = seg - safe_expint(1j * w.k * w.s, z_low_m)
-    return np.cos(w.el_c) * (seg + w.r_v * np.conj(seg))
+        seg = seg - safe_expint(1j * w.k * w.s_u, z_low_m)
+    return w.c_u * (seg + w.r_v * np.conj(seg))
 
 
 def line_currents(
@@ -214,44 +287,52 @@ def line_currents(
     length_m: float,
     z_feed: complex,
     z_far: complex | None,
-    drive,
-    v_feed,
-    v_far,
+    drive_v,
+    drive_h,
+    v_end,
     far_current: bool = False,
 ):
-    """Feed and far-end currents [A] of a line driven by a plane wave (module docstring).
+    """Feed and far-end currents [A] of a line driven by a plane wave (module docstring), both polarizations.
 
-    The distributed EMF per metre is ``drive * exp(+j k along x)``; ``v_feed`` and ``v_far`` are lumped EMFs at
-    the two ends (counted around one loop: up at the feed, down at the far end).  ``z_far`` None is an open far
-    end.  ``drive``, ``v_feed`` and ``v_far`` may carry leading axes (one per polarization, say) that broadcast
-    against the directions.  Returns (I_F, I_R); I_R is None unless ``far_current``.
+    The distributed EMF per metre is ``drive * exp(+j k along x)`` (``drive_v`` and ``drive_h`` per direction);
+    the vertical polarization also drives lumped EMFs ``v_end`` at both ends (per direction; the same vertical
+    EMF, counted around one loop: up at the feed, down at the far end, where it arrives with the wave's phase
+    along the wire).  ``z_far`` None is an open far end (no far lead).  The line's integrals are formed once
+    and serve both polarizations.  Returns ((I_F v, I_F h), (I_R v, I_R h) or None).
     """
     g, z0, L = line.gamma, line.z0, length_m
     jkc = 1j * w.k * w.along
     e2 = np.exp(-2 * g * L)
     eg = np.exp(-g * L)
-    z_minus = jkc - g
-    decay = np.exp(z_minus * L)  # e^{(jkc - g) L}
-    phase_l = decay / eg  # e^{jkcL}
-    if g.real > 0:
-        j_plus = (decay - 1.0) / z_minus  # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
-    else:  # a lossless line (measured constants): z_minus can vanish end-on
-        j_plus = safe_expint(z_minus, L)
-    j_minus = (decay - e2) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
-    i_cosh, i_sinh = 0.5 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
     ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-    v_far = v_far * phase_l
+    phase_l = np.exp((1j * w.k * L) * w.along)  # e^{jkcL}: the one transcendental per direction
+    decay = phase_l * eg  # e^{(jkc - g) L}
+    if g.real > 0:
+        j_plus = (decay - 1.0) / (jkc - g)  # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
+    else:  # a lossless line (measured constants): jkc - g can vanish end-on
+        j_plus = safe_expint(jkc - g, L)
+    j_minus = (decay - e2) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
     if z_far is None:
-        return (drive * i_sinh + v_feed * sh) / (z0 * ch + z_feed * sh), None
+        denom = z0 * ch + z_feed * sh
+        q = (0.5 / denom) * (j_plus - j_minus)  # i_sinh / denom
+        return (drive_v * q + v_end * (sh / denom), drive_h * q), None
     denom = z0 * (z_feed + z_far) * ch + (z0**2 + z_feed * z_far) * sh
-    i_f = (drive * (z0 * i_cosh + z_far * i_sinh) + v_feed * (z0 * ch + z_far * sh) - v_far * z0 * eg) / denom
+    # (z0 i_cosh + z_far i_sinh) / denom, i_cosh and i_sinh the half sum and difference of j_plus and j_minus
+    q = (0.5 * (z0 + z_far) / denom) * j_plus + (0.5 * (z0 - z_far) / denom) * j_minus
+    ends = v_end * ((z0 * ch + z_far * sh) / denom - (z0 * eg / denom) * phase_l)
+    i_f = (drive_v * q + ends, drive_h * q)
     if not far_current:
         return i_f, None
     k_plus = (phase_l - eg) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{gx} dx
     k_minus = eg * j_plus  # e^{-gL} int e^{jkcx} e^{-gx} dx
-    k_cosh, k_sinh = 0.5 * (k_plus + k_minus), 0.5 * (k_plus - k_minus)
-    i_r = (drive * (z0 * k_cosh + z_feed * k_sinh) + v_feed * z0 * eg - v_far * (z0 * ch + z_feed * sh)) / denom
-    return i_f, i_r
+    qr = (0.5 * (z0 + z_feed) / denom) * k_plus + (0.5 * (z0 - z_feed) / denom) * k_minus
+    ends_r = v_end * ((z0 * eg) / denom - ((z0 * ch + z_feed * sh) / denom) * phase_l)
+    return i_f, (drive_v * qr + ends_r, drive_h * qr)
+
+
+def _power(e):
+    """|e|^2 without the square root that abs() takes."""
+    return e.real * e.real + e.imag * e.imag
 
 
 def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, power_factor: float = 1.0):
@@ -268,7 +349,6 @@ def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, po
 class LongWire(TransformerFeed, Antenna):
     """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
-    has_far_lead = True
     has_leads = True
     terminated = True
 
@@ -346,28 +426,20 @@ class LongWire(TransformerFeed, Antenna):
             )
 
     # -- the response ---------------------------------------------------------------
-    def _excitation(self, w: PlaneWave):
-        """(distributed EMF per pol., down-lead EMF) per unit incident field."""
-        h = self.wire_height_m()
-        a_v, a_h = field_along_wire(w, h)
-        lead = vertical_emf(w, 0.0, h) if self.has_leads else np.zeros_like(a_v)
-        return a_v, a_h, lead
-
     def currents(self, freq_hz, azimuth_rad, elevation_rad, *, far_current: bool = False):
         """Feed and far-end currents [A] per unit incident field: {"v": (I_F, I_R), "h": (I_F, I_R)}, and the wave."""
         w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.bearing_rad, ground=self.ground)
-        a_v, a_h, lead = self._excitation(w)
-        no_lead = np.zeros_like(lead)
-        # Both polarizations in one pass (a leading axis): the line's integrals are shared.
+        f_v, f_h = field_along_wire(w, self.wire_height_m())
+        lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
         i_f, i_r = line_currents(
             w,
             line=self.line(freq_hz),
             length_m=self.length_m,
             z_feed=self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm,
             z_far=self.far_load_ohm(freq_hz),
-            drive=np.stack([a_v, a_h]),
-            v_feed=np.stack([lead, no_lead]),
-            v_far=np.stack([lead if self.has_far_lead else no_lead, no_lead]),
+            drive_v=-w.cos_dphi * f_v[w.inv],
+            drive_h=-w.sin_dphi * f_h[w.inv],
+            v_end=lead,
             far_current=far_current,
         )
         return {pol: (i_f[n], None if i_r is None else i_r[n]) for n, pol in enumerate(("v", "h"))}, w
@@ -380,7 +452,11 @@ class LongWire(TransformerFeed, Antenna):
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
-        return np.abs(ev) ** 2, np.abs(eh) ** 2
+        return _power(ev), _power(eh)
+
+    def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
+        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
+        return _power(ev) + _power(eh)
 
     def matched_partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Partial gains with a conjugate-matched receiver (realized gain over the mismatch factor)."""
@@ -423,14 +499,12 @@ class Beverage(LongWire):
 
 @register("unterminated", UnterminatedParams, "long wire at a height with the far end open (receives both ways)")
 class Unterminated(LongWire):
-    terminated = False
-    has_far_lead = False
+    terminated = False  # an open far end has no far down-lead
 
 
 @register("bog", BogParams, "insulated wire lying on (or just under) the ground, terminated")
 class Bog(LongWire):
     has_leads = False
-    has_far_lead = False
 
     def __init__(self, params: BogParams):
         super().__init__(params)

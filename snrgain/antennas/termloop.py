@@ -162,7 +162,7 @@ class TerminatedLoop(TransformerFeed, Antenna):
         w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.line_bearing_rad, ground=self.ground)
         top_v, top_h = field_along_wire(w, self.z_top)
         bottom_v, bottom_h = field_along_wire(w, self.z_bottom)
-        side = vertical_emf(w, self.z_bottom, self.z_top)  # each vertical side, bottom wire to top wire
+        side = vertical_emf(w, self.z_bottom, self.z_top)[w.inv]  # each vertical side, bottom wire to top wire
         load = self._load_ohm(freq_hz, termination_ohm)
         i_f, _ = line_currents(
             w,
@@ -170,9 +170,9 @@ class TerminatedLoop(TransformerFeed, Antenna):
             length_m=self.width_m,
             z_feed=load,
             z_far=termination_ohm,
-            drive=np.stack([top_v - bottom_v, top_h - bottom_h]),
-            v_feed=np.stack([side, np.zeros_like(side)]),
-            v_far=np.stack([side, np.zeros_like(side)]),
+            drive_v=-w.cos_dphi * (top_v - bottom_v)[w.inv],
+            drive_h=-w.sin_dphi * (top_h - bottom_h)[w.inv],
+            v_end=side,
         )
         return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in i_f)
 

@@ -6,7 +6,6 @@ from pathlib import Path
 
 import click
 
-from snrgain.calibrate import EXAMPLE
 from snrgain.cli.options import emit_json, handle_errors, readings_preamble, scenario_copy_options, write_output
 
 
@@ -40,7 +39,7 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
     from snrgain import calibrate as cal
 
     if readings_preamble(
-        example_text=EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
+        example_text=cal.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
     ):
         return
     res = cal.calibrate(cal.load_readings(readings), expected_velocity_factor=expected_vf, permittivity=permittivity)

@@ -14,7 +14,6 @@ from snrgain.cli.options import (
     scenario_copy_options,
     write_output,
 )
-from snrgain.locate import EXAMPLE
 
 
 @click.command("locate")
@@ -48,7 +47,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     from snrgain import locate as loc
 
     if readings_preamble(
-        example_text=EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
+        example_text=loc.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
     ):
         return
     for target in (plot, write_to):

@@ -13,9 +13,8 @@ from pathlib import Path
 
 import click
 
-from snrgain.antennas import SpecError
+from snrgain.errors import ScenarioError, SpecError
 from snrgain.files import OutputExistsError
-from snrgain.scenario import ScenarioError
 from snrgain.units import QuantityError
 
 EXIT_BAD_INPUT = 2
