@@ -3,10 +3,15 @@
     python benchmarks/bench.py
 
 Reports
+- cold start: `snrgain --help` against a bare `python -c "import numpy"` (target: within 4x);
 - the whole main job on the Alder Hollow demo (5 candidates) with one month
-  of 8 hours at nside 32, after imports (target: well under 2 s);
+  of 8 hours at nside 32, after imports, with and without the spreads;
 - one full-sphere pattern (nside 32, upper hemisphere) per antenna family;
-- the same at nside 64, for the ratio.
+- the same at nside 64, for the ratio;
+- a fresh antenna plus its pattern on a 2 deg grid (8,280 directions) against PyNEC's NEC-2 solution and
+  pattern of the same structure, for every family with an NEC counterpart (target: the 250 m Beverage
+  at least 150x faster);
+- sweeps: 1,000 RDF designs, and a 10,000-design Beverage sweep through `snrgain sweep` in-process.
 """
 
 from __future__ import annotations
@@ -218,5 +223,143 @@ def _pynec_pattern_time(ground):
     return best
 
 
+def cold_start():
+    """snrgain --help against a bare numpy import, best of 5 each (subprocesses, one run)."""
+    import subprocess
+    import sys
+
+    def best(cmd):
+        times = []
+        for _ in range(5):
+            t = time.perf_counter()
+            subprocess.run(cmd, check=True, capture_output=True)
+            times.append(time.perf_counter() - t)
+        return min(times)
+
+    t_np = best([sys.executable, "-c", "import numpy"])
+    t_help = best([sys.executable, "-m", "snrgain.cli.main", "--help"])
+    t_check = best([sys.executable, "-m", "snrgain.cli.main", "check", str(REPO / "scenarios" / "alder-hollow.toml")])
+    print(
+        f"cold start: python -c 'import numpy' {t_np * 1e3:.0f} ms; snrgain --help {t_help * 1e3:.0f} ms "
+        f"-> {t_help / t_np:.1f}x (target <= 4x); snrgain check (demo) {t_check * 1e3:.0f} ms"
+    )
+
+
+GRID_2DEG = None
+
+
+def _grid_2deg():
+    az, el = np.meshgrid(np.radians(np.arange(0.0, 360.0, 2.0)), np.radians(np.arange(0.0, 91.0, 2.0)))
+    return az.ravel(), el.ravel()
+
+
+def _pynec(wires, *, feed, loads=(), ground="average", freq_mhz=1.83, sources=None):
+    """Solve a structure with PyNEC and evaluate its pattern on the 2 deg grid (46 x 180 = 8,280 directions).
+
+    wires: (x1, y1, z1, x2, y2, z2, segments) in metres; feed and loads: (tag, segment[, ohm]); sources: several
+    (tag, segment, phase_deg) voltage sources instead of one feed.
+    """
+    from PyNEC import nec_context
+
+    ctx = nec_context()
+    geo = ctx.get_geometry()
+    for i, (x1, y1, z1, x2, y2, z2, n) in enumerate(wires):
+        geo.wire(i + 1, n, x1, y1, z1, x2, y2, z2, 8e-4, 1, 1)
+    ctx.geometry_complete(1)
+    if ground == "perfect":
+        ctx.gn_card(1, 0, 0, 0, 0, 0, 0, 0)
+    else:
+        ctx.gn_card(2, 0, 13.0, 0.005, 0, 0, 0, 0)
+    for tag, seg, ohm in loads:
+        ctx.ld_card(0, tag, seg, seg, ohm, 0, 0)
+    for tag, seg, phase in sources or [(*feed, 0.0)]:
+        ph = np.radians(phase)
+        ctx.ex_card(0, tag, seg, 0, float(np.cos(ph)), float(np.sin(ph)), 0, 0, 0, 0)
+    ctx.fr_card(0, 1, freq_mhz, 0)
+    ctx.rp_card(0, 46, 180, 0, 5, 0, 0, 0.0, 0.0, 2.0, 2.0, 0, 0)
+    return np.asarray(ctx.get_radiation_pattern(0).get_gain())
+
+
+def nec_ratios():
+    """A fresh antenna plus its 8,280-direction pattern, against PyNEC on the same structure, per family."""
+    try:
+        import PyNEC  # noqa: F401
+    except ImportError:
+        print("PyNEC not installed (pip install '.[nec]'): NEC-2 ratios skipped")
+        return
+    from snrgain.antennas import from_si
+
+    az, el = _grid_2deg()
+    lam = 299.792458 / 1.83
+    seg = lam / 40
+    quarter = lam / 4
+    cases = {
+        "beverage 250 m": (
+            lambda g: from_si("beverage", length=250.0, height=2.5, ground=g, termination=500.0),
+            dict(
+                wires=[
+                    (0, 0, 0, 0, 0, 2.5, 1),
+                    (0, 0, 2.5, 250, 0, 2.5, int(250 / seg) + 1),
+                    (250, 0, 2.5, 250, 0, 0, 1),
+                ],
+                feed=(1, 1),
+                loads=[(3, 1, 500.0)],
+            ),
+        ),
+        "unterminated 250 m": (
+            lambda g: from_si("unterminated", length=250.0, height=2.5, ground=g),
+            dict(wires=[(0, 0, 0, 0, 0, 2.5, 1), (0, 0, 2.5, 250, 0, 2.5, int(250 / seg) + 1)], feed=(1, 1)),
+        ),
+        "terminated loop 8 x 4 m": (
+            lambda g: from_si("terminated-loop", width=8.0, loop_height=4.0, height=1.5, ground=g, termination=900.0),
+            dict(
+                wires=[
+                    (0, 0, 1.5, 0, 8, 1.5, 5),
+                    (0, 8, 1.5, 0, 8, 5.5, 3),
+                    (0, 8, 5.5, 0, 0, 5.5, 5),
+                    (0, 0, 5.5, 0, 0, 1.5, 3),
+                ],
+                feed=(4, 2),
+                loads=[(2, 2, 900.0)],
+            ),
+        ),
+        "vertical quarter wave": (
+            lambda g: from_si("vertical", height=quarter, ground=g),
+            dict(wires=[(0, 0, 0, 0, 0, quarter, 21)], feed=(1, 1)),
+        ),
+        "phased verticals (pair)": (
+            lambda g: from_si(
+                "phased-verticals",
+                positions=[[0.0, 0.0], [0.0, quarter]],
+                height=5.0,
+                ground=g,
+                steering="given",
+                phases=[0.0, 90.0],
+            ),
+            dict(
+                wires=[(0, 0, 0, 0, 0, 5.0, 3), (quarter, 0, 0, quarter, 0, 5.0, 3)],
+                feed=(1, 1),
+                sources=[(1, 1, 0.0), (2, 1, -90.0)],
+            ),
+        ),
+    }
+    print(
+        f"\nA fresh antenna plus its pattern on a 2 deg grid ({az.size} directions) against PyNEC on the same "
+        "structure (best of 3 for NEC, of 30 for ours):"
+    )
+    print(f"{'family':<26}{'ground':<12}{'PyNEC [ms]':>12}{'ours [ms]':>11}{'ratio':>8}")
+    for name, (build, deck) in cases.items():
+        for ground in ("average", "perfect"):
+            t_nec, _ = best_of(lambda d=deck, g=ground: _pynec(**d, ground=g), n=3)
+            ours, _ = best_of(lambda b=build, g=ground: b(g).gain_linear(1.83e6, az, el), n=30)
+            print(f"{name:<26}{ground:<12}{t_nec * 1e3:>12.1f}{ours * 1e3:>11.3f}{t_nec / ours:>7.0f}x")
+    print(
+        "(target: the 250 m Beverage >= 150x; BOG and two-wire have no NEC-2 counterpart: NEC-2 cannot model "
+        "a wire on or in the soil, nor the two-wire's reflection transformer)"
+    )
+
+
 if __name__ == "__main__":
+    cold_start()
     main()
+    nec_ratios()

@@ -152,3 +152,39 @@ def test_vertical_too_tall_for_model():
 
 def test_registry_has_issue_families():
     assert {"isotropic", "vertical", "tabulated"} <= set(FAMILIES)
+
+
+def test_distinct_matches_numpy_unique():
+    from snrgain.antennas.geometry import distinct
+
+    rng = np.random.default_rng(3)
+    for v in (
+        np.sort(rng.integers(0, 10, 200)).astype(float),
+        np.sort(rng.random(50))[::-1],
+        rng.integers(0, 7, 100).astype(float),
+        np.array([2.0]),
+    ):
+        u, inv = distinct(v)
+        u_ref, inv_ref = np.unique(v, return_inverse=True)
+        np.testing.assert_array_equal(np.sort(u), u_ref)
+        np.testing.assert_array_equal(u[inv], v)
+
+
+def test_direction_geometry_is_never_stale():
+    # The cache keeps the last direction sets; an array changed in place must give its new geometry.
+    from snrgain.antennas.geometry import direction_geometry
+
+    az = np.radians(np.arange(0.0, 360.0, 10.0))
+    el = np.full_like(az, 0.3)
+    first = direction_geometry(az, el)
+    assert direction_geometry(az.copy(), el.copy()) is first  # equal content: a hit
+    az[0] = 1.0
+    again = direction_geometry(az, el)
+    assert again is not first and again.cos_az[0] == pytest.approx(np.cos(1.0))
+    bev = from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "average"})
+    g1 = bev.gain_linear(1.83e6, az, el)
+    az += 0.5  # in place, same object
+    g2 = bev.gain_linear(1.83e6, az, el)
+    fresh = bev.gain_linear(1.83e6, az.copy() + 0.0, el.copy())
+    np.testing.assert_array_equal(g2, fresh)
+    assert not np.allclose(g1, g2)

@@ -38,6 +38,7 @@ import numpy as np
 from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
 
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, register
+from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import SI_CONTEXT, Bearing, GroundField, PlanPoint, quantity
 from snrgain.ground import C_M_PER_S
 from snrgain.units import parse_quantity
@@ -169,7 +170,8 @@ class Array(Antenna):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
         omega = 2 * np.pi * freq_hz
-        sh = np.stack([np.sin(az), np.cos(az)], axis=-1) * np.cos(el)[..., None]  # horizontal direction, scaled
+        geo = direction_geometry(az, el)
+        east, north = geo.ce * geo.sin_az, geo.ce * geo.cos_az  # horizontal direction, scaled by cos(elevation)
         ev = np.zeros(az.shape, dtype=complex)
         eh = np.zeros(az.shape, dtype=complex)
         norm = 0.0
@@ -180,9 +182,9 @@ class Array(Antenna):
                 cache[key] = elem.complex_response(freq_hz, az, el)
             rv, rh = cache[key]
             w = amp * np.exp(-1j * (omega * tau + phase))
-            geo = np.exp(1j * k * (sh @ pos))
-            ev += w * rv * geo
-            eh += w * rh * geo
+            phase = np.exp(1j * k * (east * pos[0] + north * pos[1]))
+            ev += w * rv * phase
+            eh += w * rh * phase
             norm += amp**2
         if norm == 0:
             raise ValueError("amplitudes: every element's amplitude is zero")

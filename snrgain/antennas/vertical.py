@@ -34,11 +34,13 @@ noise alike, so it changes SNR only where receiver noise matters.
 
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Literal
 
 import numpy as np
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.antennas.geometry import distinct
 from snrgain.fields import GroundField, make_ground, quantity
 from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 
@@ -47,6 +49,12 @@ MAX_HEIGHT_WAVELENGTHS = 0.625
 
 _NZ = 24
 _NPSI = 96
+
+
+@lru_cache(maxsize=8)
+def gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre nodes and weights on [-1, 1] (computed once per order)."""
+    return np.polynomial.legendre.leggauss(n)
 
 
 class VerticalParams(AntennaParams):
@@ -69,7 +77,7 @@ class Vertical(Antenna):
         self.ground_loss_ohm = params.ground_loss
         self.ground = make_ground(params.ground)
         self._cache: dict[float, tuple[float, float]] = {}
-        zq, wq = np.polynomial.legendre.leggauss(_NZ)
+        zq, wq = gauss_legendre(_NZ)
         self._z = 0.5 * self.height_m * (zq + 1.0)
         self._wz = 0.5 * self.height_m * wq
 
@@ -93,7 +101,7 @@ class Vertical(Antenna):
         """(P_rad over perfect ground per unit current [W], |I_base|^2)."""
         if freq_hz not in self._cache:
             k = 2 * np.pi * freq_hz / C_M_PER_S
-            x, w = np.polynomial.legendre.leggauss(_NPSI)
+            x, w = gauss_legendre(_NPSI)
             psi = 0.25 * np.pi * (x + 1.0)
             wpsi = 0.25 * np.pi * w
             f_pg = self._form_factor(k, np.sin(psi), np.ones_like(psi))
@@ -117,13 +125,14 @@ class Vertical(Antenna):
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        psi = np.clip(el, 0.0, np.pi / 2)
+        # The pattern depends on the elevation alone: work on the distinct elevations, then spread.
+        psi, inv = distinct(np.clip(el, 0.0, np.pi / 2))
         r_v, _ = reflection_coefficients(self.ground, psi, freq_hz)
         f = self._form_factor(k, np.sin(psi), r_v)
         p_rad, i_sq = self._power_terms(freq_hz)
         # |e|^2 = 4 pi U / P_in with U = eta0 k^2 / (32 pi^2) cos^2(psi) |F|^2.
         scale = np.sqrt(4 * np.pi * ETA0_OHM * k**2 / (32 * np.pi**2) / (p_rad + 0.5 * i_sq * self.ground_loss_ohm))
-        ev = np.where(above_horizon(el), scale * np.cos(psi) * f, 0.0)
+        ev = np.where(above_horizon(el), (scale * np.cos(psi) * f)[inv.reshape(el.shape)], 0.0)
         return ev, np.zeros_like(ev)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):

@@ -1,0 +1,63 @@
+"""What a set of directions gives every antenna, computed once: distinct elevations, sines and cosines.
+
+Patterns are asked for on the same directions again and again (a sky grid, a pattern grid, by every antenna
+and every design of a sweep); the few sets last used are kept (:func:`direction_geometry`).
+"""
+
+from __future__ import annotations
+
+from collections import OrderedDict
+from dataclasses import dataclass
+
+import numpy as np
+
+
+def distinct(values) -> tuple[np.ndarray, np.ndarray]:
+    """(distinct values, index of each value among them), like ``np.unique(..., return_inverse=True)`` but in one
+    linear pass when the values are already sorted either way (the rows of a pattern grid, HEALPix rings)."""
+    v = np.asarray(values, dtype=float).ravel()
+    if v.size > 1:
+        d = np.diff(v)
+        if np.all(d >= 0) or np.all(d <= 0):
+            starts = np.concatenate(([True], d != 0))
+            return v[starts], np.cumsum(starts) - 1
+    u, inv = np.unique(v, return_inverse=True)
+    return u, inv.ravel()
+
+
+@dataclass(frozen=True)
+class Geometry:
+    """What a set of directions gives every antenna: distinct elevations, cos and sin of the azimuths."""
+
+    az: np.ndarray
+    el: np.ndarray
+    el_u: np.ndarray
+    inv: np.ndarray
+    c_u: np.ndarray
+    s_u: np.ndarray
+    ce: np.ndarray
+    cos_az: np.ndarray
+    sin_az: np.ndarray
+
+
+_GEOMETRY: OrderedDict = OrderedDict()
+_GEOMETRY_SLOTS = 8
+
+
+def direction_geometry(az: np.ndarray, el: np.ndarray) -> Geometry:
+    """The geometry of a direction set, kept for the last few sets (a pattern grid or a sky is asked for again
+    and again, by every antenna and every design of a sweep).  A hit is checked against the stored copies, so an
+    array changed in place is never mistaken for the one it was."""
+    key = (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    hit = _GEOMETRY.get(key)
+    if hit is not None and np.array_equal(hit.az, az) and np.array_equal(hit.el, el):
+        _GEOMETRY.move_to_end(key)
+        return hit
+    el_u, inv = distinct(np.clip(el, 0.0, np.pi / 2))
+    inv = inv.reshape(el.shape)
+    c_u = np.cos(el_u)
+    geo = Geometry(az.copy(), el.copy(), el_u, inv, c_u, np.sin(el_u), c_u[inv], np.cos(az), np.sin(az))
+    _GEOMETRY[key] = geo
+    if len(_GEOMETRY) > _GEOMETRY_SLOTS:
+        _GEOMETRY.popitem(last=False)
+    return geo
