@@ -359,7 +359,59 @@ def nec_ratios():
     )
 
 
+def sweep_benchmarks():
+    """`snrgain sweep` in-process: 10,000 Beverage designs (time), and 100,000 (peak memory, in a subprocess)."""
+    import resource
+    import subprocess
+    import sys
+    import tempfile
+
+    demo = str(REPO / "scenarios" / "alder-hollow.toml")
+    varies = [
+        "Beverage toward Europe: length = 150 m to 399 m by 1 m",
+        "Beverage toward Europe: height = 1 m to 4.9 m by 0.1 m",
+    ]
+    with tempfile.TemporaryDirectory() as tmp:
+        args = [sys.executable, "-m", "snrgain.cli.main", "sweep", demo, "-o", f"{tmp}/s.csv"]
+        for v in varies:
+            args += ["--vary", v]
+        t = time.perf_counter()
+        subprocess.run(args, check=True, capture_output=True)
+        dt = time.perf_counter() - t
+        print(
+            f"\nsweep of 10,000 Beverage designs (length x height), nside 32, in-process: {dt:.1f} s including "
+            "start-up (target < 60 s)"
+        )
+        args = [
+            sys.executable,
+            "-m",
+            "snrgain.cli.main",
+            "sweep",
+            demo,
+            "-o",
+            f"{tmp}/m.csv",
+            "--nside",
+            "8",
+            "--vary",
+            varies[0],
+            "--vary",
+            varies[1],
+            "--vary",
+            "Beverage toward Europe: termination = 300 to 1200 by 100",
+        ]
+        t = time.perf_counter()
+        subprocess.run(args, check=True, capture_output=True)
+        dt = time.perf_counter() - t
+        peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+        rows = sum(1 for _ in open(f"{tmp}/m.csv")) - 1
+        print(
+            f"sweep of 100,000 designs (x 10 terminations, nside 8): {dt:.0f} s, {rows} rows, peak memory of the "
+            f"largest child so far {peak_mb:.0f} MB (target < 1 GB)"
+        )
+
+
 if __name__ == "__main__":
     cold_start()
     main()
     nec_ratios()
+    sweep_benchmarks()

@@ -419,23 +419,41 @@ def _raw_ground(site) -> str | dict | None:
     return g if isinstance(g, (str, dict)) else None
 
 
-def load(source: str | Path | dict, *, nside: int | None = None, p372_dir: str | Path | None = None) -> Scenario:
+def read_source(source: str | Path) -> tuple[dict, str, Path | None]:
+    """A scenario file's (or TOML text's) raw tables, its label and the folder its relative paths start from."""
+    text, label, base_dir = _read(source)
+    try:
+        return tomllib.loads(text), label, base_dir
+    except tomllib.TOMLDecodeError as exc:
+        raise ScenarioError(label, [("", f"not valid TOML: {exc}")]) from None
+
+
+def antenna_from_table(spec: dict, where: str, *, site_ground, base_dir: Path | None, freq_hz: float) -> Antenna:
+    """Build one antenna table as :func:`load` does (the site's ground filled in, pattern files found relative to
+    the scenario); raises SpecError naming ``where``."""
+    return build_antenna(_inject_defaults(spec, site_ground=site_ground, base_dir=base_dir), where, freq_hz=freq_hz)
+
+
+def load(
+    source: str | Path | dict,
+    *,
+    nside: int | None = None,
+    p372_dir: str | Path | None = None,
+    base_dir: Path | None = None,
+    label: str | None = None,
+) -> Scenario:
     """Load and validate a scenario from a path, TOML text or a dict.
 
     ``p372_dir`` is the folder of the ITU-R P.372 coefficient files given on
     the command line; the scenario key ``noise.atmospheric.data_dir`` and the
     environment variable SNRGAIN_P372_DIR take precedence over it, in that
-    order.  Raises :class:`ScenarioError` listing every problem.
+    order.  A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  Raises
+    :class:`ScenarioError` listing every problem.
     """
-    base_dir: Path | None = None
     if isinstance(source, dict):
-        data, label = source, "<dict>"
+        data, label = source, label or "<dict>"
     else:
-        text, label, base_dir = _read(source)
-        try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise ScenarioError(label, [("", f"not valid TOML: {exc}")]) from None
+        data, label, base_dir = read_source(source)
     problems: list[tuple[str, str]] = []
     try:
         model = ScenarioModel.model_validate(data)

@@ -12,6 +12,7 @@ from snrgain.cli.new import new
 from snrgain.cli.noise import noise
 from snrgain.cli.rank import rank
 from snrgain.cli.report import figures, report
+from snrgain.cli.sweep import sweep
 from snrgain.cli.wire import wire
 
 
@@ -35,6 +36,7 @@ cli.add_command(calibrate)
 cli.add_command(locate)
 cli.add_command(report)
 cli.add_command(figures)
+cli.add_command(sweep)
 
 if __name__ == "__main__":  # pragma: no cover
     cli()

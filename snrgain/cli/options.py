@@ -47,6 +47,8 @@ def handle_errors(fn):
 
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
             sys.exit(EXIT_FAILURE)
+        except KeyboardInterrupt:
+            fail("interrupted; nothing was written", EXIT_FAILURE)
         except OutputExistsError as exc:
             fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
         except ScenarioError as exc:

@@ -1,0 +1,100 @@
+"""``snrgain sweep``: a scenario over a grid of values of its keys, as a tidy table."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from snrgain.cli.options import (
+    check_output,
+    handle_errors,
+    nside_option,
+    overwrite_option,
+    p372_dir_option,
+    scenario_argument,
+)
+
+
+@click.command("sweep")
+@scenario_argument
+@click.option(
+    "--vary",
+    "varies",
+    multiple=True,
+    required=True,
+    metavar="'TABLE: KEY = VALUES'",
+    help="A key to vary (repeat for a grid): TABLE is a candidate's name, 'reference' or a section (site, band, "
+    "time, receiver, chain, ...); VALUES a range 'START to STOP by STEP' in one unit or a list 'A, B, C'. "
+    "E.g. --vary 'Beverage NE: length = 150 m to 350 m by 10 m' --vary 'site: ground = poor, average, good'.",
+)
+@click.option(
+    "--output",
+    "-o",
+    type=click.Path(dir_okay=False, path_type=str),
+    required=True,
+    help="The table to write: .csv, or .parquet (needs pyarrow); whole or not at all.",
+)
+@click.option(
+    "--spread/--no-spread",
+    default=False,
+    show_default=True,
+    help="Add the median, 10 %% and 90 %% points and the probability of beating the reference (each design a "
+    "full run with the scenario's [uncertainty]); by default the nominal SNR gain only.",
+)
+@click.option(
+    "--dask",
+    "dask_address",
+    default=None,
+    metavar="ADDRESS",
+    help="Run the designs on a Dask cluster: a scheduler's address (tcp://host:8786) or 'local' for two "
+    "workers on this machine.  The table is the same as in one process.",
+)
+@overwrite_option
+@nside_option
+@p372_dir_option
+@handle_errors
+def sweep(scenario, varies, output, spread, dask_address, overwrite, nside, p372_dir):
+    """Run SCENARIO over every combination of the --vary values and write one row per design, varied antenna
+    and target: the varied values, the SNR gain over the reference, RDF, front-to-back, gain toward the target
+    and the worst-hour noise margin.
+
+    Only a candidate's own keys varying: the sky and the reference are computed once, so thousands of designs
+    take seconds.  Varying the site, band, time or reference, or asking --spread, runs each design in full.
+    """
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+
+    from snrgain import sweep as sw
+    from snrgain.scenario import read_source
+
+    check_output(output, overwrite=overwrite)
+    sw.output_format(output)
+    parsed = [sw.parse_vary(v) for v in varies]
+    columns = [v.column for v in parsed]
+    if len(set(columns)) != len(columns):
+        raise ValueError("--vary: the same key is varied twice")
+    data, label, base_dir = read_source(Path(scenario))
+    study = sw.Study(
+        data,
+        label,
+        None if base_dir is None else str(base_dir),
+        parsed,
+        p372_dir=p372_dir,
+        nside=int(nside) if nside else None,
+        spread=spread,
+    )
+    total = sw.design_count(parsed)
+    if total > sw.MAX_DESIGNS:
+        raise ValueError(f"--vary: {total} designs is too many (at most {sw.MAX_DESIGNS})")
+    with Progress(
+        TextColumn("sweep"), BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(), transient=False, console=None
+    ) as bar:
+        task = bar.add_task("designs", total=total)
+        n = sw.run(
+            study,
+            output,
+            overwrite=overwrite,
+            dask=dask_address,
+            progress=lambda done: bar.update(task, completed=done),
+        )
+    click.echo(f"wrote {output}: {n} designs", err=True)

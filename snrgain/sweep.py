@@ -1,0 +1,532 @@
+"""Design sweeps: a scenario run over a grid of values of its keys, as a tidy table.
+
+A varied key is written ``TABLE: KEY = VALUES`` (snrgain's own syntax):
+
+- TABLE is a candidate's name, ``reference``, or a section of the scenario (``site``, ``band``, ``time``,
+  ``receiver``, ``chain``); KEY is a key of that table (dotted for a key inside it, ``feedline.length``);
+- VALUES is a range ``START to STOP by STEP`` (the same unit throughout, STOP included when the steps reach
+  it: ``150 m to 350 m by 10 m``) or a list ``A, B, C`` (``poor, average, good``; ``1, 7`` for months).
+
+    >>> v = parse_vary("Beverage NE: length = 150 m to 250 m by 50 m")
+    >>> v.table, v.key, v.values, v.column
+    ('Beverage NE', 'length', ['150 m', '200 m', '250 m'], 'Beverage NE: length [m]')
+    >>> parse_vary("time: months = 1, 7").values
+    [[1], [7]]
+
+Every combination of the varied values is one design.  When only candidates' own keys vary, the sky, the
+reference and every other antenna are computed once and each design rebuilds only what changed; otherwise
+each design is a full run.  The SNR figures are the nominal ones (median ground and noise levels) unless the
+spreads are asked for, which makes every design a full run.  Rows stream to the output in chunks, so memory
+stays flat however many designs there are; with Dask (:func:`run` ``dask=``) the chunks run on a cluster and
+come back in order, so the table is the same as in one process.
+"""
+
+from __future__ import annotations
+
+import copy
+import itertools
+import math
+import re
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+import numpy as np
+
+from snrgain.errors import ScenarioError, SpecError
+
+SECTIONS = ("site", "band", "time", "receiver", "chain", "noise", "uncertainty", "compute")
+"""Tables of the scenario that a sweep may vary besides the antennas."""
+LIST_KEYS = {("time", "months"), ("time", "utc_hours")}
+"""Keys whose value is a list: a varied value becomes a one-element list (one month per design)."""
+MAX_DESIGNS = 10_000_000
+"""The most designs one sweep may hold."""
+COLUMNS = [
+    "design",
+    "antenna",
+    "target",
+    "snr_gain_db",
+    "rdf_db",
+    "front_to_back_db",
+    "gain_toward_target_dbi",
+    "margin_db",
+    "receiver_limited",
+]
+SPREAD_COLUMNS = ["snr_gain_median_db", "snr_gain_p10_db", "snr_gain_p90_db", "probability_beats_reference"]
+
+_NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?"
+_TERM = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s].*?)?\s*$")
+
+
+class VaryError(ValueError):
+    """A --vary argument that cannot be used; the message names it."""
+
+    def __init__(self, text: str, message: str):
+        self.text = text
+        super().__init__(f"--vary {text!r}: {message}")
+
+
+@dataclass(frozen=True)
+class Vary:
+    """One varied key: where it is, and the values it takes (as a scenario file would hold them)."""
+
+    text: str
+    table: str
+    key: str
+    values: list
+    column: str
+    """The output column holding the design's value (the unit in brackets for a range)."""
+    column_values: list
+    """The values as written in the column: numbers in the range's unit, or the list items."""
+
+
+def _term(text: str, what: str, arg: str) -> tuple[float, str]:
+    m = _TERM.match(text)
+    if m is None:
+        raise VaryError(arg, f"cannot read the range's {what} {text.strip()!r}: write a number and a unit")
+    return float(m.group(1)), (m.group(2) or "").strip()
+
+
+def _scalar(item: str):
+    """A list item as a scenario value: a number where it is one, else the text."""
+    item = item.strip()
+    try:
+        return int(item)
+    except ValueError:
+        pass
+    try:
+        return float(item)
+    except ValueError:
+        return item
+
+
+def parse_vary(text: str) -> Vary:
+    """Read one ``TABLE: KEY = VALUES`` argument (module docstring); raises VaryError naming it."""
+    if ":" not in text or "=" not in text:
+        raise VaryError(text, "write TABLE: KEY = VALUES, e.g. 'Beverage NE: length = 150 m to 350 m by 10 m'")
+    table, rest = text.split(":", 1)
+    key, values = rest.split("=", 1)
+    table, key, values = table.strip(), key.strip(), values.strip()
+    if not table or not key or not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_][A-Za-z0-9_]*)*", key):
+        raise VaryError(text, f"the table and key must be named, the key as word or word.word; got {key!r}")
+    listed = (table, key) in LIST_KEYS
+    m = re.fullmatch(r"(.+?)\s+to\s+(.+?)\s+by\s+(.+)", values)
+    if m is None and re.search(r"\bto\b", values):
+        raise VaryError(text, "a range is START to STOP by STEP, e.g. '150 m to 350 m by 10 m'")
+    if m:
+        (a, ua), (b, ub), (step, us) = (_term(m.group(i), w, text) for i, w in ((1, "start"), (2, "stop"), (3, "step")))
+        if not ua == ub == us:
+            raise VaryError(
+                text, f"give the start, stop and step in one unit; got {ua or 'none'}, {ub or 'none'}, {us or 'none'}"
+            )
+        if step == 0 or not math.isfinite(step):
+            raise VaryError(text, "the step must not be zero")
+        if (b - a) * step < 0:
+            raise VaryError(text, f"the range is empty: from {a:g} the step {step:g} never reaches {b:g}")
+        n = int(math.floor((b - a) / step + 1e-9)) + 1
+        if n > MAX_DESIGNS:
+            raise VaryError(text, f"{n} values is too many (at most {MAX_DESIGNS})")
+        nums = [a + i * step for i in range(n)]
+        nums = [round(x, 12) for x in nums]
+        vals = [f"{x:g} {ua}" if ua else x for x in nums]
+        column = f"{table}: {key} [{ua}]" if ua else f"{table}: {key}"
+        col_vals = nums
+    else:
+        items = [s for s in (v.strip() for v in values.split(",")) if s]
+        if not items:
+            raise VaryError(text, "no values: give a range START to STOP by STEP or a list A, B, C")
+        vals = [_scalar(s) for s in items]
+        column = f"{table}: {key}"
+        col_vals = list(vals)
+    if listed:
+        vals = [[v] for v in vals]
+    return Vary(text, table, key, vals, column, col_vals)
+
+
+def _table(data: dict, vary: Vary) -> dict:
+    """The table of the raw scenario a varied key lives in (created for a section that is absent)."""
+    if vary.table == "reference":
+        ref = data.get("reference")
+        if ref is None:
+            raise VaryError(vary.text, "the scenario gives no [reference] table; write one to vary it")
+        return ref
+    if vary.table in SECTIONS:
+        return data.setdefault(vary.table, {})
+    for cand in data.get("candidate", []):
+        if isinstance(cand, dict) and cand.get("name") == vary.table:
+            return cand
+    names = [c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)]
+    raise VaryError(
+        vary.text,
+        f"no candidate named {vary.table!r}; the candidates are {names}, or vary "
+        f"'reference' or a section ({', '.join(SECTIONS)})",
+    )
+
+
+def apply(data: dict, varies: list[Vary], values) -> dict:
+    """A copy of the raw scenario with each varied key set to its value in this design."""
+    out = copy.deepcopy(data)
+    for vary, value in zip(varies, values):
+        table = _table(out, vary)
+        *path, last = vary.key.split(".")
+        for part in path:
+            table = table.setdefault(part, {})
+            if not isinstance(table, dict):
+                raise VaryError(vary.text, f"{part!r} is not a table in {vary.table!r}")
+        table[last] = value
+    return out
+
+
+def design_count(varies: list[Vary]) -> int:
+    n = 1
+    for v in varies:
+        n *= len(v.values)
+    return n
+
+
+def designs(varies: list[Vary]) -> Iterator[tuple]:
+    """Every combination of the varied values, the last key varying fastest (lazily)."""
+    return itertools.product(*(v.values for v in varies))
+
+
+# -- evaluation --------------------------------------------------------------------------------------------------
+
+
+@dataclass
+class Study:
+    """A sweep's scenario and options, everything a worker needs to run designs (picklable)."""
+
+    data: dict
+    label: str
+    base_dir: str | None
+    varies: list[Vary]
+    p372_dir: str | None = None
+    nside: int | None = None
+    spread: bool = False
+
+    @property
+    def fast(self) -> bool:
+        """Only candidates' own keys vary (not their chains), and no spread is asked: the shared part is computed
+        once."""
+        return not self.spread and all(
+            v.table not in SECTIONS and v.table != "reference" and not v.key.startswith("chain") for v in self.varies
+        )
+
+    def load(self, data: dict):
+        from snrgain.scenario import load
+
+        base = Path(self.base_dir) if self.base_dir else None
+        sc = load(data, nside=self.nside, p372_dir=self.p372_dir, base_dir=base, label=self.label)
+        if not self.spread:
+            sc = replace(
+                sc,
+                uncertainty=replace(
+                    sc.uncertainty, ground=False, noise_deciles=False, local_sources=False, hours=False
+                ),
+            )
+        return sc
+
+
+def validate(study: Study) -> None:
+    """Check every varied key before any work: its table exists, and the first and last value of each (every
+    value of a list) give a valid scenario.  Raises VaryError naming the argument."""
+    base_values = [v.values[0] for v in study.varies]
+    for i, vary in enumerate(study.varies):
+        ends = vary.values if len(vary.values) <= 16 else [vary.values[0], vary.values[-1]]
+        for value in ends:
+            values = list(base_values)
+            values[i] = value
+            try:
+                study.load(apply(study.data, study.varies, values))
+            except ScenarioError as exc:
+                problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
+                raise VaryError(vary.text, f"with {_shown(value)} the scenario is invalid: {problems}") from None
+            except (SpecError, ValueError) as exc:
+                raise VaryError(vary.text, f"with {_shown(value)}: {exc}") from None
+
+
+def _shown(value) -> str:
+    return repr(value[0] if isinstance(value, list) and len(value) == 1 else value)
+
+
+class _Shared:
+    """The part of a scenario that candidate-only designs share: the sky, the reference, the temperatures."""
+
+    def __init__(self, study: Study):
+        from noisemodels.sphere import upper_hemisphere
+        from snrgain import noise as noisemod
+        from snrgain import snr
+
+        self.study = study
+        self.sc = sc = study.load(study.data)
+        self.grid = upper_hemisphere(sc.nside)
+        gains = snr.antenna_gains([sc.reference], sc.freq_hz, self.grid, sc.targets)
+        self.skies = noisemod.build_skies(
+            sc.noise,
+            sc.place,
+            months=sc.times.months,
+            utc_hours=sc.times.utc_hours,
+            grid=self.grid,
+            reference_gain=gains.caches[0].gain_fn,
+            reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
+        )
+        self.ref_gains = gains
+        self.ref_temps = snr.sky_temperatures(gains, self.skies)
+        self.raw_ground = study.data.get("site", {}).get("ground", "average")
+        self.names = [c.name for c in sc.candidates]
+
+    def candidate(self, data: dict, name: str):
+        """The AntennaResult of one candidate of a design, against the shared reference and sky."""
+        from snrgain import pipeline, snr
+        from snrgain.scenario import antenna_from_table
+        from snrgain.spread import SnrSpread
+
+        sc = self.sc
+        k = self.names.index(name)
+        spec = dict(next(c for c in data["candidate"] if c.get("name") == name))
+        spec.pop("chain", None)
+        base = Path(self.study.base_dir) if self.study.base_dir else None
+        ant = antenna_from_table(
+            spec, f"candidate {name!r}", site_ground=self.raw_ground, base_dir=base, freq_hz=sc.freq_hz
+        )
+        g = snr.antenna_gains([ant], sc.freq_hz, self.grid, sc.targets)
+        t = snr.sky_temperatures(g, self.skies)
+        gains = snr.Gains(
+            [self.ref_gains.caches[0], g.caches[0]],
+            np.vstack([self.ref_gains.toward, g.toward]),
+            np.concatenate([self.ref_gains.mean, g.mean]),
+        )
+        by = np.concatenate([self.ref_temps.by_component, t.by_component], axis=1)
+        temps = snr.Temperatures(by, by.sum(axis=0))
+        sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[1 + k]))
+        nt = len(sc.targets)
+        nominal = SnrSpread(*(np.zeros((2, nt)),) * 4, beat_by_db=sc.uncertainty.beat_by_db)
+        res = pipeline.antenna_results(sub, gains, temps, self.skies, nominal)[1]
+        res.snr_gain_median_db = res.snr_gain_p10_db = res.snr_gain_p90_db = res.snr_gain_nominal_db
+        return res
+
+
+_SHARED: dict[int, _Shared] = {}
+
+
+def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
+    """Rows (one per design, varied antenna and target) for a chunk of (design number, values)."""
+    rows = []
+    targets_of = None
+    if study.fast:
+        key = id(study)
+        shared = _SHARED.get(key)
+        if shared is None:
+            _SHARED.clear()
+            shared = _SHARED[key] = _Shared(study)
+        names = sorted({v.table for v in study.varies}, key=shared.names.index)
+        targets_of = [t.name for t in shared.sc.targets]
+        for number, values in chunk:
+            data = apply(study.data, study.varies, values)
+            for name in names:
+                rows += _rows(number, study.varies, values, shared.candidate(data, name), targets_of, False)
+        return rows
+    from snrgain.pipeline import evaluate
+
+    for number, values in chunk:
+        r = evaluate(study.load(apply(study.data, study.varies, values)))
+        names = {v.table for v in study.varies} & {c.name for c in r.candidates}
+        chosen = [c for c in r.candidates if c.name in names] or list(r.candidates)
+        for a in chosen:
+            rows += _rows(number, study.varies, values, a, [t["name"] for t in r.targets], study.spread)
+    return rows
+
+
+def _rows(number, varies, values, a, targets, spread) -> list[dict]:
+    out = []
+    fixed = {"design": number}
+    for vary, value in zip(varies, values):
+        fixed[vary.column] = vary.column_values[vary.values.index(value)]
+    margin = float(np.min(a.margin_db))
+    for i, target in enumerate(targets):
+        row = dict(fixed)
+        row.update(
+            antenna=a.name,
+            target=target,
+            snr_gain_db=float(a.snr_gain_nominal_db[i]),
+            rdf_db=float(a.rdf_db[i]),
+            front_to_back_db=float(a.front_to_back_db[i]),
+            gain_toward_target_dbi=float(a.gain_dbi[i]),
+            margin_db=margin,
+            receiver_limited=bool(a.receiver_limited),
+        )
+        if spread:
+            row.update(
+                snr_gain_median_db=float(a.snr_gain_median_db[i]),
+                snr_gain_p10_db=float(a.snr_gain_p10_db[i]),
+                snr_gain_p90_db=float(a.snr_gain_p90_db[i]),
+                probability_beats_reference=float(a.probability_beats[i]),
+            )
+        out.append(row)
+    return out
+
+
+# -- output ------------------------------------------------------------------------------------------------------
+
+
+class _TableWriter:
+    """Rows appended in chunks to CSV or Parquet (pyarrow), with the column order fixed by the first chunk."""
+
+    def __init__(self, path: Path, fmt: str):
+        self.path, self.fmt = path, fmt
+        self.columns = None
+        self._csv = self._pq = self._fh = None
+
+    def write(self, rows: list[dict]):
+        if not rows:
+            return
+        if self.columns is None:
+            self.columns = list(rows[0])
+            if self.fmt == "csv":
+                import csv
+
+                self._fh = open(self.path, "w", newline="", encoding="utf-8")  # noqa: SIM115 - closed in close()
+                self._csv = csv.writer(self._fh, lineterminator="\n")
+                self._csv.writerow(self.columns)
+        if self.fmt == "csv":
+            for r in rows:
+                self._csv.writerow([_cell(r[c]) for c in self.columns])
+        else:
+            import pyarrow as pa
+            import pyarrow.parquet as pq
+
+            table = pa.Table.from_pylist(rows).select(self.columns)
+            if self._pq is None:
+                self._pq = pq.ParquetWriter(str(self.path), table.schema)
+            self._pq.write_table(table)
+
+    def close(self):
+        if self._fh is not None:
+            self._fh.close()
+        if self._pq is not None:
+            self._pq.close()
+
+
+def _cell(v):
+    if isinstance(v, float):
+        return "" if not math.isfinite(v) else repr(v)
+    return v
+
+
+def output_format(path) -> str:
+    suffix = Path(path).suffix.lower()
+    if suffix == ".csv":
+        return "csv"
+    if suffix in (".parquet", ".pq"):
+        try:
+            import pyarrow  # noqa: F401
+        except ImportError:
+            raise ValueError("Parquet output needs pyarrow: pip install 'snrgain[scale]'") from None
+        return "parquet"
+    raise ValueError(f"{path}: write the sweep as .csv or .parquet")
+
+
+# -- the run -----------------------------------------------------------------------------------------------------
+
+TARGET_CHUNK_S = 0.1
+"""A chunk of designs holds about this much work [s] (enough to keep a cluster's overhead small)."""
+
+
+def run(
+    study: Study,
+    output,
+    *,
+    overwrite: bool = False,
+    dask: str | None = None,
+    progress: Callable[[int], None] | None = None,
+    chunk_designs: int | None = None,
+) -> int:
+    """Run every design and write the table to ``output`` (.csv or .parquet) whole or not at all.
+
+    ``dask``: "local" for a LocalCluster on this machine, or a scheduler's address.  ``progress(n)`` is called
+    with the number of designs done after each chunk.  Returns the number of designs.
+    """
+    from snrgain.files import write_atomic
+
+    fmt = output_format(output)
+    validate(study)
+    total = design_count(study.varies)
+    numbered = enumerate(designs(study.varies))
+    first = list(itertools.islice(numbered, 1))
+    import time
+
+    t0 = time.perf_counter()
+    head_rows = run_designs(study, first)
+    per_design = max(time.perf_counter() - t0, 1e-4)
+    size = chunk_designs or max(1, int(TARGET_CHUNK_S / per_design))
+
+    def chunks():
+        while True:
+            block = list(itertools.islice(numbered, size))
+            if not block:
+                return
+            yield block
+
+    def body(tmp: Path):
+        writer = _TableWriter(tmp, fmt)
+        try:
+            writer.write(head_rows)
+            done = 1
+            if progress:
+                progress(done)
+            results = _in_process(study, chunks()) if dask is None else _on_dask(study, chunks(), dask)
+            for n, rows in results:
+                writer.write(rows)
+                done += n
+                if progress:
+                    progress(done)
+        finally:
+            writer.close()
+
+    write_atomic(output, body, overwrite=overwrite)
+    return total
+
+
+def _in_process(study, chunks):
+    for block in chunks:
+        yield len(block), run_designs(study, block)
+
+
+def connect(address: str, *, timeout_s: float = 8.0):
+    """A Dask client: a LocalCluster of two single-threaded workers for "local", else the scheduler at
+    ``address``; ValueError naming --dask when it cannot be reached within ``timeout_s``."""
+    try:
+        from distributed import Client, LocalCluster
+    except ImportError:
+        raise ValueError("--dask needs Dask's distributed scheduler: pip install 'snrgain[scale]'") from None
+    if address == "local":
+        cluster = LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None)
+        return Client(cluster)
+    try:
+        return Client(address, timeout=f"{timeout_s}s")
+    except (OSError, TimeoutError) as exc:
+        raise ValueError(
+            f"--dask {address!r}: cannot reach the scheduler ({exc.__class__.__name__}: {exc}); "
+            "start one with 'dask scheduler' and workers with 'dask worker ADDRESS'"
+        ) from None
+
+
+def _on_dask(study, chunks, address):
+    """Chunks on a Dask cluster, a few in flight per worker, results taken back in order."""
+    client = connect(address)
+    try:
+        study_future = client.scatter(study, broadcast=True)
+        window = max(2, 2 * len(client.scheduler_info().get("workers", {})))
+        pending = []
+        for block in chunks:
+            pending.append((len(block), client.submit(run_designs, study_future, block, pure=False)))
+            if len(pending) >= window:
+                n, fut = pending.pop(0)
+                yield n, fut.result()
+        for n, fut in pending:
+            yield n, fut.result()
+    finally:
+        cluster = getattr(client, "cluster", None)
+        client.close()
+        if cluster is not None:
+            cluster.close()

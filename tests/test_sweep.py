@@ -1,0 +1,155 @@
+"""Design sweeps: the --vary syntax, the shared fast path against full runs, Dask against one process, output."""
+
+import csv
+import time
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from snrgain import sweep as sw
+from snrgain.cli.main import cli
+from snrgain.scenario import read_source
+from tests.conftest import SCENARIOS
+
+DEMO = SCENARIOS / "alder-hollow.toml"
+
+
+def _study(*varies, spread=False):
+    data, label, base = read_source(DEMO)
+    return sw.Study(data, label, str(base), [sw.parse_vary(v) for v in varies], spread=spread)
+
+
+def test_parse_ranges_and_lists():
+    v = sw.parse_vary("Beverage toward Europe: length = 150 m to 350 m by 10 m")
+    assert len(v.values) == 21 and v.values[0] == "150 m" and v.values[-1] == "350 m"
+    assert v.column == "Beverage toward Europe: length [m]" and v.column_values[-1] == 350.0
+    assert sw.parse_vary("x: termination = 600 to 400 by -100").values == [600, 500, 400]
+    assert sw.parse_vary("site: ground = poor, average, good").values == ["poor", "average", "good"]
+    assert sw.parse_vary("time: utc_hours = 2, 4").values == [[2], [4]]
+
+
+@pytest.mark.parametrize(
+    "text, says",
+    [
+        ("Beverage: length = 150 m to 350 m by 0 m", "must not be zero"),
+        ("Beverage: length = 150 m to 350 m by -10 m", "empty"),
+        ("Beverage: length = 350 m to 150 m by 10 m", "empty"),
+        ("Beverage: length = 150 m to 350 ft by 10 m", "one unit"),
+        ("Beverage: length =", "no values"),
+        ("length = 150 m", "TABLE: KEY = VALUES"),
+        ("Beverage: length = 150 m to 350 m", "START to STOP by STEP"),
+    ],
+)
+def test_bad_vary_is_named(text, says):
+    with pytest.raises(sw.VaryError, match=says) as info:
+        sw.parse_vary(text)
+    assert text in str(info.value)
+
+
+@pytest.mark.parametrize(
+    "vary, says",
+    [
+        ("nobody: length = 100 m, 200 m", "no candidate named 'nobody'"),
+        ("Beverage toward Europe: lenght = 100 m, 200 m", "unknown key"),
+        ("Beverage toward Europe: length = 1000 m to 5000 m by 4000 m", "5000 m"),
+        ("site: ground = average, marsh", "marsh"),
+    ],
+)
+def test_bad_vary_is_exit_2(tmp_path, vary, says):
+    out = tmp_path / "s.csv"
+    res = CliRunner().invoke(cli, ["sweep", str(DEMO), "--vary", vary, "-o", str(out)])
+    assert res.exit_code == 2, res.output
+    assert vary in res.stderr and says in res.stderr
+    assert not out.exists()
+
+
+def test_fast_path_equals_full_runs(monkeypatch):
+    study = _study(
+        "Beverage toward Europe: length = 180 m to 300 m by 60 m", "BOG toward Europe: termination = 200, 400"
+    )
+    assert study.fast
+    chunk = list(enumerate(sw.designs(study.varies)))
+    fast = sw.run_designs(study, chunk)
+    monkeypatch.setattr(sw.Study, "fast", property(lambda self: False))
+    full = sw.run_designs(study, chunk)
+    assert len(fast) == len(full) == 6 * 2 * 2  # designs x varied antennas x targets
+    for a, b in zip(fast, full):
+        assert a.keys() == b.keys()
+        for k in a:
+            if isinstance(a[k], float):
+                assert a[k] == pytest.approx(b[k], abs=1e-9), k
+            else:
+                assert a[k] == b[k], k
+
+
+def test_sweep_command_writes_a_tidy_csv(tmp_path):
+    out = tmp_path / "s.csv"
+    res = CliRunner().invoke(
+        cli, ["sweep", str(DEMO), "--vary", "Beverage toward Europe: height = 2 m to 4 m by 1 m", "-o", str(out)]
+    )
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.open()))
+    assert len(rows) == 3 * 2
+    assert rows[0]["Beverage toward Europe: height [m]"] == "2.0" and rows[0]["antenna"] == "Beverage toward Europe"
+    assert {r["target"] for r in rows} == {"Europe", "South America"}
+    # It refuses to overwrite.
+    again = CliRunner().invoke(
+        cli, ["sweep", str(DEMO), "--vary", "Beverage toward Europe: height = 2 m, 3 m", "-o", str(out)]
+    )
+    assert again.exit_code == 2 and "--overwrite" in again.stderr
+
+
+def test_parquet_and_spread(tmp_path):
+    pq = pytest.importorskip("pyarrow.parquet")
+    out = tmp_path / "s.parquet"
+    res = CliRunner().invoke(cli, ["sweep", str(DEMO), "--vary", "time: months = 1, 12", "--spread", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    table = pq.read_table(out).to_pylist()
+    assert len(table) == 2 * 5 * 2  # designs x candidates (a scenario key: all of them) x targets
+    assert all(r["snr_gain_p10_db"] <= r["snr_gain_median_db"] <= r["snr_gain_p90_db"] for r in table)
+
+
+def test_dask_local_cluster_equals_one_process(tmp_path):
+    pytest.importorskip("distributed")
+    study = _study("Beverage toward Europe: length = 150 m to 330 m by 20 m")
+    one, two = tmp_path / "one.csv", tmp_path / "two.csv"
+    sw.run(study, one, chunk_designs=3)
+    sw.run(study, two, dask="local", chunk_designs=3)
+    a, b = list(csv.DictReader(one.open())), list(csv.DictReader(two.open()))
+    assert len(a) == len(b) == 10 * 2
+    for ra, rb in zip(a, b):
+        for k in ra:
+            try:
+                assert float(ra[k]) == pytest.approx(float(rb[k]), abs=1e-9), k
+            except ValueError:
+                assert ra[k] == rb[k]
+
+
+def test_unreachable_scheduler_fails_fast(tmp_path):
+    pytest.importorskip("distributed")
+    t0 = time.perf_counter()
+    res = CliRunner().invoke(
+        cli,
+        [
+            "sweep",
+            str(DEMO),
+            "--vary",
+            "Beverage toward Europe: height = 2 m, 3 m",
+            "--dask",
+            "tcp://127.0.0.1:9",
+            "-o",
+            str(tmp_path / "s.csv"),
+        ],
+    )
+    assert time.perf_counter() - t0 < 10.0
+    assert res.exit_code == 2 and "--dask" in res.stderr and "scheduler" in res.stderr
+    assert not (tmp_path / "s.csv").exists()
+
+
+def test_designs_are_lazy():
+    varies = [sw.parse_vary("a: x = 1 to 1000 by 1"), sw.parse_vary("a: y = 1 to 1000 by 1")]
+    assert sw.design_count(varies) == 1_000_000
+    first = next(iter(sw.designs(varies)))
+    assert first == (1.0, 1.0)
+    assert np.isfinite(sw.design_count(varies))
