@@ -435,13 +435,15 @@ def test_atomic_writer(tmp_path):
     assert p.read_text() == "two" and sorted(x.name for x in tmp_path.iterdir()) == ["out.txt"]
 
 
-def test_help_and_check_leave_the_sky_machinery_and_matplotlib_unimported():
+def test_help_check_new_and_wire_leave_healpy_and_matplotlib_unimported():
     code = (
         "import sys\n"
         "from click.testing import CliRunner\n"
         "from snrgain.cli.main import cli\n"
         "assert CliRunner().invoke(cli, ['--help']).exit_code == 0\n"
         f"assert CliRunner().invoke(cli, ['check', {str(SCENARIOS / 'alder-hollow.toml')!r}]).exit_code == 0\n"
+        "assert CliRunner().invoke(cli, ['new', '-']).exit_code == 0\n"
+        "assert CliRunner().invoke(cli, ['wire', '--frequency', '1.83 MHz', '--length', '200 m']).exit_code == 0\n"
         "print(sorted(m for m in ('matplotlib', 'healpy') if m in sys.modules))\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()

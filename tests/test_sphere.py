@@ -41,3 +41,16 @@ def test_reference_monopole_is_lossless(nside):
     up = sphere.upper_hemisphere(nside)
     val = np.dot(sky.reference_monopole_gain(up.elevation_rad), up.solid_angle_sr) / (4 * np.pi)
     assert val == pytest.approx(1.0, abs=2e-3)
+
+
+@pytest.mark.parametrize("nside", [1, 2, 4, 8, 32, 64])
+def test_upper_hemisphere_matches_healpy(nside):
+    # The ring-scheme closed form (Gorski et al. 2005, Section 4) against healpy's own pix2ang.
+    npix = hp.nside2npix(nside)
+    theta, phi = hp.pix2ang(nside, np.arange(npix))
+    keep = np.cos(theta) > -1e-12
+    g = sphere.upper_hemisphere(nside)
+    assert g.size == int(keep.sum())
+    np.testing.assert_allclose(g.elevation_rad, np.clip(np.pi / 2 - theta[keep], 0, np.pi / 2), atol=1e-12)
+    np.testing.assert_allclose(g.azimuth_rad, np.mod(phi[keep], 2 * np.pi), atol=1e-12)
+    assert g.solid_angle_sr.sum() == pytest.approx(2 * np.pi, rel=1e-12)
