@@ -77,33 +77,33 @@ def main():
 
     specs = {
         "isotropic": {"family": "isotropic"},
-        "beverage 300 m": {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"},
-        "bog 80 m": {"family": "bog", "length": "80 m", "ground": "average"},
+        "beverage 300 m": {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"},
+        "bog 80 m": {"family": "bog", "length": "80 m", "ground": "moist loam"},
         "terminated loop": {
             "family": "terminated-loop",
             "width": "8.5 m",
             "loop_height": "4.3 m",
             "termination": 950,
-            "ground": "average",
+            "ground": "moist loam",
         },
         "small loop": {
             "family": "small-loop",
             "width": "1 m",
             "loop_height": "1 m",
             "height": "2 m",
-            "ground": "average",
+            "ground": "moist loam",
         },
         "phased pair": {
             "family": "phased-verticals",
             "positions": [[0, 0], [0, 41]],
             "height": "6 m",
-            "ground": "average",
+            "ground": "moist loam",
         },
         "4 verticals": {
             "family": "phased-verticals",
             "positions": [[0, 0], [0, 41], [41, 0], [41, 41]],
             "height": "6 m",
-            "ground": "average",
+            "ground": "moist loam",
         },
         "vertical": {"family": "vertical", "height": "18 m"},
         "tabulated": {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")},
@@ -171,10 +171,10 @@ def long_wire_benchmarks(from_spec, upper_hemisphere):
     except ImportError:
         print("PyNEC not installed (pip install '.[nec]'): NEC-2 ratio skipped")
     else:
-        lossy = from_spec({**spec, "ground": "average"})
+        lossy = from_spec({**spec, "ground": "moist loam"})
         ours_lossy, _ = best_of(lambda: lossy.gain_linear(1.83e6, grid.azimuth_rad, grid.elevation_rad), n=20)
         for label, gn, mine in (
-            ("Sommerfeld ground (GN 2), average soil", "sommerfeld", ours_lossy),
+            ("Sommerfeld ground (GN 2), moist loam (5 mS/m, 13)", "sommerfeld", ours_lossy),
             ("perfect ground (GN 1)", "perfect", ours),
         ):
             t = _pynec_pattern_time(gn)
@@ -185,7 +185,7 @@ def long_wire_benchmarks(from_spec, upper_hemisphere):
     lengths = np.linspace(150, 400, 10)
     terms = np.linspace(300, 800, 10)
     bearings = np.arange(0, 360, 36.0)
-    base = {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"}
+    base = {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"}
     t0 = time.perf_counter()
     out = wiredesign.sweep_rdf(base, 1.83e6, lengths_m=lengths, terminations_ohm=terms, bearings_deg=bearings)
     dt = time.perf_counter() - t0
@@ -253,7 +253,7 @@ def _grid_2deg():
     return az.ravel(), el.ravel()
 
 
-def _pynec(wires, *, feed, loads=(), ground="average", freq_mhz=1.83, sources=None):
+def _pynec(wires, *, feed, loads=(), ground="moist loam", freq_mhz=1.83, sources=None):
     """Solve a structure with PyNEC and evaluate its pattern on the 2 deg grid (46 x 180 = 8,280 directions).
 
     wires: (x1, y1, z1, x2, y2, z2, segments) in metres; feed and loads: (tag, segment[, ohm]); sources: several
@@ -349,7 +349,7 @@ def nec_ratios():
     )
     print(f"{'family':<26}{'ground':<12}{'PyNEC [ms]':>12}{'ours [ms]':>11}{'ratio':>8}")
     for name, (build, deck) in cases.items():
-        for ground in ("average", "perfect"):
+        for ground in ("moist loam", "perfect"):
             t_nec, _ = best_of(lambda d=deck, g=ground: _pynec(**d, ground=g), n=3)
             ours, _ = best_of(lambda b=build, g=ground: b(g).gain_linear(1.83e6, az, el), n=30)
             print(f"{name:<26}{ground:<12}{t_nec * 1e3:>12.1f}{ours * 1e3:>11.3f}{t_nec / ours:>7.0f}x")

@@ -215,7 +215,7 @@ GroundInput = str | GroundConstants | InstanceOf[groundmod.Ground]
 def make_ground(spec: Any) -> groundmod.Ground | None:
     """A Ground from a name, a GroundConstants (the middle of its ranges), or a dict; None for 'perfect'."""
     if spec is None:
-        return groundmod.GROUND_TYPES["average"]
+        return groundmod.GROUND_TYPES["moist loam"]
     if isinstance(spec, groundmod.Ground):
         return spec
     if isinstance(spec, str):

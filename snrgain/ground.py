@@ -50,7 +50,7 @@ class Ground:
 
 
 _P527 = "ITU-R P.527 (electrical characteristics of the surface of the Earth), values at MF/low HF, from memory"
-_PRACTICE = "common practice in low-band antenna modelling"
+_OWN = "snrgain's description of the soil, values of the kind common in low-band modelling"
 
 GROUND_TYPES: dict[str, Ground] = {
     "sea water": Ground(5.0, 70.0, "sea water", _P527),
@@ -58,15 +58,15 @@ GROUND_TYPES: dict[str, Ground] = {
     "wet ground": Ground(1e-2, 30.0, "wet ground", _P527),
     "medium dry ground": Ground(1e-3, 15.0, "medium dry ground", _P527),
     "very dry ground": Ground(1e-4, 3.0, "very dry ground", _P527),
-    "very good": Ground(3e-2, 20.0, "very good", _PRACTICE),
-    "good": Ground(1e-2, 14.0, "good", _PRACTICE),
-    "average": Ground(5e-3, 13.0, "average", _PRACTICE),
-    "poor": Ground(1e-3, 5.0, "poor", _PRACTICE),
-    "city": Ground(1e-3, 5.0, "city", _PRACTICE),
+    "salt marsh": Ground(3e-2, 20.0, "salt marsh", _OWN),
+    "moist clay": Ground(1e-2, 14.0, "moist clay", _OWN),
+    "moist loam": Ground(5e-3, 13.0, "moist loam", _OWN),
+    "sandy soil": Ground(1e-3, 5.0, "sandy soil", _OWN),
+    "built-up land": Ground(1e-3, 5.0, "built-up land", _OWN),
 }
-"""Named grounds.  The P.527 entries are the Recommendation's curves read at
-about 1-3 MHz; the others are the constants low-band modellers commonly use
-(average ground: 5 mS/m, eps_r 13)."""
+"""Named grounds.  The P.527 entries are the Recommendation's categories, its curves read at about 1-3 MHz
+(from memory); the others are soils described in snrgain's own words with their constants stated (moist loam,
+5 mS/m and relative permittivity 13, is the default).  Numeric constants remain the main form."""
 
 
 @dataclass(frozen=True)

@@ -40,7 +40,7 @@ EXAMPLE = """\
 # Noise readings for snrgain locate: the same noise read on known antennas.
 frequency = "1.83 MHz"
 bandwidth = "500 Hz"
-ground = "average"
+ground = "moist loam"
 
 [antenna.loop]               # a small loop turned by hand between readings
 family = "small-loop"
@@ -101,7 +101,7 @@ def load_readings(path: str | Path) -> NoiseReadings:
             raise ValueError(f"{path}: {key} is missing (see --example)")
     f = parse_quantity(data["frequency"], "frequency")
     b = parse_quantity(data["bandwidth"], "frequency")
-    ground = data.get("ground", "average")
+    ground = data.get("ground", "moist loam")
     antennas = data["antenna"]
     readings = []
     for i, r in enumerate(data["reading"]):

@@ -56,7 +56,7 @@ class SiteSection(StrictModel):
     name: str = "unnamed site"
     latitude: Latitude
     longitude: Longitude
-    ground: GroundField = "average"
+    ground: GroundField = "moist loam"
     lot: list[PlanPoint] | None = Field(default=None, min_length=3)
     """The lot's outline on the site plan, [east, north] corners (for the plan view)."""
 
@@ -415,7 +415,7 @@ def _inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
 
 def _raw_ground(site) -> str | dict | None:
     """The site's ground as written, for antennas that give none; None if unusable (reported elsewhere)."""
-    g = site.get("ground", "average") if isinstance(site, dict) else "average"
+    g = site.get("ground", "moist loam") if isinstance(site, dict) else "moist loam"
     return g if isinstance(g, (str, dict)) else None
 
 
@@ -462,7 +462,7 @@ def load(
         model = None
 
     # Antennas are validated by their own families (even when other sections failed).
-    site_ground = _raw_ground(data.get("site", {})) if isinstance(data, dict) else "average"
+    site_ground = _raw_ground(data.get("site", {})) if isinstance(data, dict) else "moist loam"
     ref_spec = data.get("reference") if isinstance(data, dict) else None
     freq = model.band.frequency if model else None
     if ref_spec is None:

@@ -5,7 +5,7 @@ A varied key is written ``TABLE: KEY = VALUES`` (snrgain's own syntax):
 - TABLE is a candidate's name, ``reference``, or a section of the scenario (``site``, ``band``, ``time``,
   ``receiver``, ``chain``); KEY is a key of that table (dotted for a key inside it, ``feedline.length``);
 - VALUES is a range ``START to STOP by STEP`` (the same unit throughout, STOP included when the steps reach
-  it: ``150 m to 350 m by 10 m``) or a list ``A, B, C`` (``poor, average, good``; ``1, 7`` for months).
+  it: ``150 m to 350 m by 10 m``) or a list ``A, B, C`` (``sandy soil, moist loam``; ``1, 7`` for months).
 
     >>> v = parse_vary("Beverage NE: length = 150 m to 250 m by 50 m")
     >>> v.table, v.key, v.values, v.column
@@ -272,7 +272,7 @@ class _Shared:
         )
         self.ref_gains = gains
         self.ref_temps = snr.sky_temperatures(gains, self.skies)
-        self.raw_ground = study.data.get("site", {}).get("ground", "average")
+        self.raw_ground = study.data.get("site", {}).get("ground", "moist loam")
         self.names = [c.name for c in sc.candidates]
 
     def candidate(self, data: dict, name: str):

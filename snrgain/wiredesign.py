@@ -185,7 +185,7 @@ def wire_spec(
     far_ground="20 ohm",
     gauge: int | None = None,
     diameter=None,
-    ground="average",
+    ground="moist loam",
     conductivity=None,
     permittivity=None,
     coax: int = 75,

@@ -25,7 +25,7 @@ MINIMAL = """
 name = "test site"
 latitude = 40.0
 longitude = -75.0
-ground = "average"
+ground = "moist loam"
 
 [band]
 frequency = "1.83 MHz"

@@ -25,7 +25,7 @@ def test_quarter_wave_monopole_5_15_dbi_and_36_ohm():
 
 
 def test_vertical_is_omnidirectional_and_vertical_polarized():
-    a = from_spec({"family": "vertical", "height": "20 m", "ground": "average"})
+    a = from_spec({"family": "vertical", "height": "20 m", "ground": "moist loam"})
     g = a.gain_dbi(F, np.arange(0, 360, 30), 15.0)
     assert np.ptp(g) < 1e-9
     gv, gh = a.partial_gains_dbi(F, 0.0, 15.0)
@@ -34,13 +34,13 @@ def test_vertical_is_omnidirectional_and_vertical_polarized():
 
 def test_vertical_over_real_ground_null_at_horizon():
     # R_v -> -1 at grazing incidence: the direct and reflected rays cancel at the horizon over finite ground.
-    a = from_spec({"family": "vertical", "height": "20 m", "ground": "average"})
+    a = from_spec({"family": "vertical", "height": "20 m", "ground": "moist loam"})
     assert np.isneginf(a.gain_dbi(F, 0.0, 0.0)) or a.gain_dbi(F, 0.0, 0.0) < -60
 
 
 def test_ground_loss_lowers_gain_by_efficiency():
-    lossless = from_spec({"family": "vertical", "height": "20 m", "ground": "average", "ground_loss": 0})
-    lossy = from_spec({"family": "vertical", "height": "20 m", "ground": "average", "ground_loss": "20 ohm"})
+    lossless = from_spec({"family": "vertical", "height": "20 m", "ground": "moist loam", "ground_loss": 0})
+    lossy = from_spec({"family": "vertical", "height": "20 m", "ground": "moist loam", "ground_loss": "20 ohm"})
     diff = lossless.gain_dbi(F, 0, 20) - lossy.gain_dbi(F, 0, 20)
     assert diff == pytest.approx(-10 * np.log10(lossy.efficiency(F)), abs=1e-9)
     assert diff > 0
@@ -181,7 +181,7 @@ def test_direction_geometry_is_never_stale():
     az[0] = 1.0
     again = direction_geometry(az, el)
     assert again is not first and again.cos_az[0] == pytest.approx(np.cos(1.0))
-    bev = from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "average"})
+    bev = from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "moist loam"})
     g1 = bev.gain_linear(1.83e6, az, el)
     az += 0.5  # in place, same object
     g2 = bev.gain_linear(1.83e6, az, el)

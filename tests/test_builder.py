@@ -166,7 +166,7 @@ def test_only_the_ground_spread():
     assert bog.snr_gain_p90_db[0] - bog.snr_gain_p10_db[0] > 1.0  # a wire on the ground depends on the soil
     assert r.uncertainty["ground"]["conductivity_s_per_m"] == pytest.approx([0.002, 0.0125])
     # A ground given without ranges has no spread.
-    fixed = text.replace('ground = "average"', 'ground = { conductivity = "5 mS/m", permittivity = 13 }', 1)
+    fixed = text.replace('ground = "moist loam"', 'ground = { conductivity = "5 mS/m", permittivity = 13 }', 1)
     r2 = snrgain.evaluate(fixed + "\n[uncertainty]\nnoise_deciles = false\nlocal_sources = false\nhours = false\n")
     assert r2.uncertainty["ground"] is None
     assert all(np.all(c.snr_gain_p90_db - c.snr_gain_p10_db < 0.011) for c in r2.candidates)
@@ -180,7 +180,7 @@ def test_probability_of_beating_falls_with_the_margin():
 
 
 def test_ground_nodes_and_class_spread():
-    spread = class_spread("average")  # 5 mS/m, 13: a factor 2.5 and 1.5 each way (documented assumption)
+    spread = class_spread("moist loam")  # 5 mS/m, 13: a factor 2.5 and 1.5 each way (documented assumption)
     assert spread.conductivity_s_per_m == pytest.approx((0.002, 0.0125))
     nodes = ground_nodes(snrgain.scenario.load(MINIMAL).site.ground, spread)
     assert len(nodes) == 9 and sum(w for _, w in nodes) == pytest.approx(1.0)
@@ -252,12 +252,12 @@ def test_empty_hours_and_reversed_ranges_are_exit_2(tmp_path):
         (MINIMAL.replace("elevation = [10, 20]\n", "elevation = [10, 20]\nutc_hours = []\n"), "target.0.utc_hours"),
         (
             MINIMAL.replace(
-                'ground = "average"', 'ground = { conductivity = ["8 mS/m", "2 mS/m"], permittivity = 13 }'
+                'ground = "moist loam"', 'ground = { conductivity = ["8 mS/m", "2 mS/m"], permittivity = 13 }'
             ),
             "site.ground",
         ),
         (
-            MINIMAL.replace('ground = "average"', 'ground = { conductivity = "5 mS/m", permittivity = [20, 8] }'),
+            MINIMAL.replace('ground = "moist loam"', 'ground = { conductivity = "5 mS/m", permittivity = [20, 8] }'),
             "site.ground",
         ),
     ]
@@ -271,7 +271,7 @@ def test_empty_hours_and_reversed_ranges_are_exit_2(tmp_path):
 
 def test_ground_range_sets_the_spread_and_its_middle():
     text = MINIMAL.replace(
-        'ground = "average"', 'ground = { conductivity = ["2 mS/m", "8 mS/m"], permittivity = [9, 16] }'
+        'ground = "moist loam"', 'ground = { conductivity = ["2 mS/m", "8 mS/m"], permittivity = [9, 16] }'
     )
     sc = snrgain.scenario.load(text)
     assert sc.site.ground.conductivity_s_per_m == pytest.approx(0.004)  # geometric middle

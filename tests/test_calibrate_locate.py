@@ -29,7 +29,7 @@ def _readings_of(line, length):
 def test_open_short_inversion_recovers_the_line(family, length, vf_hint):
     # Transmission-line identities Z0 = sqrt(Zoc Zsc), tanh(gamma L) = sqrt(Zsc/Zoc); the 250 m wire is
     # longer than a quarter wave, so the branch comes from the expected velocity factor and the length.
-    spec = {"family": family, "length": f"{length} m", "ground": "average"}
+    spec = {"family": family, "length": f"{length} m", "ground": "moist loam"}
     if family == "beverage":
         spec["height"] = "2.5 m"
     ant = from_spec(spec)
@@ -42,7 +42,7 @@ def test_open_short_inversion_recovers_the_line(family, length, vf_hint):
 
 
 def test_branch_unwrapped_over_frequency():
-    ant = from_spec({"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "average"})
+    ant = from_spec({"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"})
     freqs = [1.0e6, 1.4e6, 1.83e6, 2.5e6, 3.6e6]
     reads = []
     for f in freqs:
@@ -94,7 +94,7 @@ def test_too_few_readings_for_ground_fit():
 
 
 def test_calibrate_command(tmp_path):
-    ant = from_spec({"family": "bog", "length": "250 ft", "gauge": 16, "ground": "average"})
+    ant = from_spec({"family": "bog", "length": "250 ft", "gauge": 16, "ground": "moist loam"})
     zoc, zsc = _readings_of(ant.line(F), ant.length_m)
     rf = tmp_path / "r.toml"
     rf.write_text(
@@ -162,7 +162,7 @@ def test_small_loop_free_space_like_directivity_and_nulls():
 
 # -- noise location -------------------------------------------------------------------
 
-LOOP = {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "1.5 m", "ground": "average"}
+LOOP = {"family": "small-loop", "width": "1 m", "loop_height": "1 m", "height": "1.5 m", "ground": "moist loam"}
 
 
 def _synth(antennas, *, bearing, fa_src=75.0, fa_bg=55.0, noise_db=0.5, seed=0):
@@ -209,7 +209,7 @@ def test_loop_readings_recover_bearing_within_5_deg_modulo_180(bearing):
 
 def test_directional_antennas_resolve_the_ambiguity():
     bevs = [
-        from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "average", "bearing": b})
+        from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "moist loam", "bearing": b})
         for b in range(0, 360, 45)
     ]
     res = locate(_synth(bevs, bearing=250.0, seed=2), freq_hz=F, bandwidth_hz=500.0)
@@ -219,7 +219,7 @@ def test_directional_antennas_resolve_the_ambiguity():
 
 def test_fit_reports_failure_when_direction_unconstrained():
     # Omnidirectional readings only (verticals of different heights): no bearing information.
-    verts = [from_spec({"family": "vertical", "height": f"{h} m", "ground": "average"}) for h in (6, 10, 15, 20)]
+    verts = [from_spec({"family": "vertical", "height": f"{h} m", "ground": "moist loam"}) for h in (6, 10, 15, 20)]
     res = locate(_synth(verts, bearing=100.0), freq_hz=F, bandwidth_hz=500.0)
     assert not res.ok
     assert "do not constrain" in res.message

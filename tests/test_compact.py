@@ -130,7 +130,7 @@ def test_uniform_linear_array_factor(n, d_wl, beta_deg):
     ],
 )
 def test_array_of_one_element_leaves_its_pattern_unchanged(spec):
-    spec = {**spec, "ground": "average"}
+    spec = {**spec, "ground": "moist loam"}
     alone = from_spec(spec)
     arr = from_spec({"family": "array", "elements": [spec]})
     np.testing.assert_allclose(
@@ -144,7 +144,7 @@ def test_array_of_one_element_leaves_its_pattern_unchanged(spec):
 def test_broadside_pair_of_beverages_beats_one():
     # Two identical Beverages side by side, added in phase: up to twice the gain forward, narrower lobe.
     lam = C_M_PER_S / F
-    bev = {"family": "beverage", "length": "250 m", "height": "2.5 m", "ground": "average", "bearing": 0}
+    bev = {"family": "beverage", "length": "250 m", "height": "2.5 m", "ground": "moist loam", "bearing": 0}
     one = from_spec(bev)
     pair = from_spec(
         {
@@ -174,7 +174,7 @@ def test_terminated_loop_cardioid_and_figure_eight():
         "width": "8.5 m",
         "loop_height": "4.3 m",
         "height": "1.5 m",
-        "ground": "average",
+        "ground": "moist loam",
         "bearing": 45,
     }
     auto = from_spec({**base, "termination": "auto"})
@@ -266,7 +266,7 @@ def test_wire_structure_refuses_low_wires_over_lossy_ground():
             "family": "wire-structure",
             "wires": [{"from": [0, 0, 2], "to": [100, 0, 2]}],
             "feed": {"wire": 1, "at": 0.0},
-            "ground": "average",
+            "ground": "moist loam",
         }
     )
     with pytest.raises(ValueError, match="wires\\[0\\].*Sommerfeld"):
@@ -302,7 +302,7 @@ def test_phased_verticals_limited_to_short_elements():
 
 
 def test_terminated_loop_auto_for_front_to_back():
-    base = {"family": "terminated-loop", "width": "8.5 m", "loop_height": "4.3 m", "ground": "average"}
+    base = {"family": "terminated-loop", "width": "8.5 m", "loop_height": "4.3 m", "ground": "moist loam"}
     rdf = from_spec({**base, "auto_for": "rdf"})
     fb = from_spec({**base, "auto_for": "front_to_back"})
     f_b = fb.gain_dbi(F, 0, 20) - fb.gain_dbi(F, 180, 20)
@@ -324,7 +324,7 @@ def test_phased_verticals_auto_steering_points_along_the_bearing(bearing_deg):
             "positions": [[0, 0], list(spacing * u)],
             "height": "5 m",
             "bearing": bearing_deg,
-            "ground": "average",
+            "ground": "moist loam",
         }
     )
     az = np.arange(0.0, 360.0, 1.0)

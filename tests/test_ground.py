@@ -24,7 +24,7 @@ def _snell_impedance_form(psi, eps_c):
     return -g_tm, g_te
 
 
-@pytest.mark.parametrize("name", ["average", "poor", "sea water", "very dry ground"])
+@pytest.mark.parametrize("name", ["moist loam", "sandy soil", "sea water", "very dry ground"])
 @pytest.mark.parametrize("f", [1.8e6, 7.1e6])
 def test_fresnel_against_snell_form(name, f):
     g = ground.GROUND_TYPES[name]
@@ -35,7 +35,7 @@ def test_fresnel_against_snell_form(name, f):
     np.testing.assert_allclose(fresnel_horizontal(psi, eps_c), rh_ref, rtol=1e-9, atol=1e-12)
 
 
-@pytest.mark.parametrize("name", ["average", "poor", "sea water", "fresh water"])
+@pytest.mark.parametrize("name", ["moist loam", "sandy soil", "sea water", "fresh water"])
 def test_grazing_incidence_minus_one(name):
     # Any finite ground reflects -1 at grazing incidence, both polarizations (textbook limit).
     eps_c = ground.GROUND_TYPES[name].complex_permittivity(1.83e6)
@@ -60,12 +60,12 @@ def test_brewster_angle_lossless():
 
 
 def test_normal_incidence_equal_magnitude():
-    eps_c = ground.GROUND_TYPES["average"].complex_permittivity(3.6e6)
+    eps_c = ground.GROUND_TYPES["moist loam"].complex_permittivity(3.6e6)
     assert abs(fresnel_vertical(np.pi / 2, eps_c)) == pytest.approx(abs(fresnel_horizontal(np.pi / 2, eps_c)))
 
 
 def test_unknown_ground_lists_names():
-    with pytest.raises(ValueError, match="'average'"):
+    with pytest.raises(ValueError, match="'moist loam'"):
         ground.ground_by_name("loam")
 
 

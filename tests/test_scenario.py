@@ -36,7 +36,7 @@ def test_default_reference_is_quarter_wave_vertical(minimal_text):
 
 
 def test_site_ground_reaches_antennas(minimal_text):
-    sc = load(minimal_text.replace('ground = "average"', 'ground = { conductivity = "30 mS/m", permittivity = 20 }'))
+    sc = load(minimal_text.replace('ground = "moist loam"', 'ground = { conductivity = "30 mS/m", permittivity = 20 }'))
     assert sc.reference.ground.conductivity_s_per_m == pytest.approx(0.03)
 
 

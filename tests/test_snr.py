@@ -19,7 +19,7 @@ def _uniform_sky(grid, fa=60.0):
 @pytest.mark.parametrize(
     "spec",
     [
-        {"family": "vertical", "height": "30 m", "ground": "average", "ground_loss": "10 ohm"},
+        {"family": "vertical", "height": "30 m", "ground": "moist loam", "ground_loss": "10 ohm"},
         {"family": "tabulated", "file": "scenarios/patterns/cardioid-pair.csv", "rotate": 45},
     ],
 )
@@ -30,7 +30,7 @@ def test_uniform_sky_no_receiver_noise_gives_ratio_of_directivities(spec, monkey
     monkeypatch.chdir(REPO)
     grid = sphere.upper_hemisphere(32)
     comp = _uniform_sky(grid)
-    ref = from_spec({"family": "vertical", "height": "20 m", "ground": "average"})
+    ref = from_spec({"family": "vertical", "height": "20 m", "ground": "moist loam"})
     cand = from_spec(spec)
     tgt = from_bearing(
         "t", bearing_rad=np.radians(45), elevation_lo_rad=np.radians(10), elevation_hi_rad=np.radians(20)

@@ -25,7 +25,7 @@ def test_parse_ranges_and_lists():
     assert len(v.values) == 21 and v.values[0] == "150 m" and v.values[-1] == "350 m"
     assert v.column == "Beverage toward Europe: length [m]" and v.column_values[-1] == 350.0
     assert sw.parse_vary("x: termination = 600 to 400 by -100").values == [600, 500, 400]
-    assert sw.parse_vary("site: ground = poor, average, good").values == ["poor", "average", "good"]
+    assert sw.parse_vary("site: ground = sandy soil, moist loam").values == ["sandy soil", "moist loam"]
     assert sw.parse_vary("time: utc_hours = 2, 4").values == [[2], [4]]
 
 
@@ -53,7 +53,7 @@ def test_bad_vary_is_named(text, says):
         ("nobody: length = 100 m, 200 m", "no candidate named 'nobody'"),
         ("Beverage toward Europe: lenght = 100 m, 200 m", "unknown key"),
         ("Beverage toward Europe: length = 1000 m to 5000 m by 4000 m", "5000 m"),
-        ("site: ground = average, marsh", "marsh"),
+        ("site: ground = moist loam, marsh", "marsh"),
     ],
 )
 def test_bad_vary_is_exit_2(tmp_path, vary, says):

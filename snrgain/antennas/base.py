@@ -220,7 +220,7 @@ def from_si(family: str, **values) -> Antenna:
     optimisers).  Strings with units are still accepted.
 
     >>> import numpy as np
-    >>> bev = from_si("beverage", length=250.0, height=2.5, bearing=np.radians(45.0), ground="average")
+    >>> bev = from_si("beverage", length=250.0, height=2.5, bearing=np.radians(45.0), ground="moist loam")
     >>> bev.length_m, round(float(np.degrees(bev.bearing_rad)), 6)
     (250.0, 45.0)
     >>> from_si("beverage", length=-1.0, height=2.5)

@@ -45,15 +45,15 @@ RADIUS_M = 0.0008138  # AWG 14
 
 # name, MHz, length m, height m, eps_r, sigma S/m
 CASES = [
-    ("f183-l131-h2-avg", 1.83, 131.0, 2.0, 13.0, 0.005),
-    ("f183-l150-h3-poor", 1.83, 150.0, 3.0, 5.0, 0.001),
-    ("f360-l75-h25-good", 3.6, 75.0, 2.5, 14.0, 0.01),
-    ("f710-l38-h1-avg", 7.1, 38.0, 1.0, 13.0, 0.005),
-    ("f183-l155-h15-vgood", 1.83, 155.0, 1.5, 20.0, 0.03),
-    ("f360-l70-h12-poor", 3.6, 70.0, 1.2, 5.0, 0.001),
-    ("f710-l36-h2-vgood", 7.1, 36.0, 2.0, 20.0, 0.03),
+    ("f183-l131-h2-s5ms", 1.83, 131.0, 2.0, 13.0, 0.005),
+    ("f183-l150-h3-s1ms", 1.83, 150.0, 3.0, 5.0, 0.001),
+    ("f360-l75-h25-s10ms", 3.6, 75.0, 2.5, 14.0, 0.01),
+    ("f710-l38-h1-s5ms", 7.1, 38.0, 1.0, 13.0, 0.005),
+    ("f183-l155-h15-s30ms", 1.83, 155.0, 1.5, 20.0, 0.03),
+    ("f360-l70-h12-s1ms", 3.6, 70.0, 1.2, 5.0, 0.001),
+    ("f710-l36-h2-s30ms", 7.1, 36.0, 2.0, 20.0, 0.03),
 ]
-SWEEP = ("f183-l150-h3-poor", [200.0, 300.0, 400.0, 500.0, 700.0, 900.0])
+SWEEP = ("f183-l150-h3-s1ms", [200.0, 300.0, 400.0, 500.0, 700.0, 900.0])
 
 # Terminated rectangular loops: name, MHz, width, loop height, bottom height, termination, eps_r, sigma.
 # NEC's phi = 180 deg is the loop's favoured direction (from the termination toward the feed).
@@ -63,13 +63,13 @@ LOOP_CASES = [
     ("loop-f183-w85-r1000", 1.83, 8.5, 4.3, 1.5, 1000.0, 13.0, 0.005),
     ("loop-f183-w85-r2000", 1.83, 8.5, 4.3, 1.5, 2000.0, 13.0, 0.005),
     ("loop-f360-w5-r900", 3.6, 5.0, 3.0, 1.5, 900.0, 13.0, 0.005),
-    ("loop-f183-w10-r1100-poor", 1.83, 10.0, 5.0, 2.0, 1100.0, 5.0, 0.001),
+    ("loop-f183-w10-r1100-s1ms", 1.83, 10.0, 5.0, 2.0, 1100.0, 5.0, 0.001),
 ]
 # Two verticals a quarter wave apart, the one at +x lagging 90 deg (end-fire toward +x, NEC phi = 0), each
 # fed through a 2 kohm base load: name, MHz, height, spacing, eps_r, sigma.
 PAIR_CASES = [
     ("pair-f183-h6", 1.83, 6.0, 40.96, 13.0, 0.005),
-    ("pair-f360-h4-poor", 3.6, 4.0, 20.82, 5.0, 0.001),
+    ("pair-f360-h4-s1ms", 3.6, 4.0, 20.82, 5.0, 0.001),
 ]
 PAIR_LOAD_OHM = 2000.0
 PAIR_RADIUS_M = 0.01
