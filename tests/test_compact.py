@@ -226,7 +226,7 @@ def test_wire_structure_quarter_wave_vertical_textbook():
         {
             "family": "wire-structure",
             "wires": [{"from": [0, 0, 0], "to": [0, 0, lam / 4], "radius": "5 mm"}],
-            "feed": {"wire": 1, "at": 0.0},
+            "feed": {"point": [0, 0, 0]},
             "ground": "perfect",
         }
     )
@@ -249,8 +249,8 @@ def test_wire_structure_polarization_and_bearing():
         {
             "family": "wire-structure",
             "ground": "perfect",
-            "feed": {"wire": 1, "at": 0.5},
-            "wires": [{"from": [-lam / 4, 0, lam / 4], "to": [lam / 4, 0, lam / 4]}],
+            "feed": {"wire": "dipole", "distance": f"{lam / 4} m"},
+            "wires": [{"name": "dipole", "from": [-lam / 4, 0, lam / 4], "to": [lam / 4, 0, lam / 4]}],
         }
     )  # along east-west
     gv, gh = d.partial_gains_dbi(F, [0.0, 90.0], [30.0, 30.0])
@@ -265,18 +265,30 @@ def test_wire_structure_refuses_low_wires_over_lossy_ground():
         {
             "family": "wire-structure",
             "wires": [{"from": [0, 0, 2], "to": [100, 0, 2]}],
-            "feed": {"wire": 1, "at": 0.0},
+            "feed": {"point": [0, 0, 2]},
             "ground": "moist loam",
         }
     )
     with pytest.raises(ValueError, match="wires\\[0\\].*Sommerfeld"):
         w.check_frequency(F)
-    with pytest.raises(SpecError, match="wire 3 is named"):
+    with pytest.raises(SpecError, match="no wire named 'top'"):
         from_spec(
             {
                 "family": "wire-structure",
-                "wires": [{"from": [0, 0, 2], "to": [1, 0, 2]}],
-                "feed": {"wire": 3, "at": 0.0},
+                "wires": [{"name": "lead", "from": [0, 0, 2], "to": [1, 0, 2]}],
+                "feed": {"wire": "top", "distance": "0 m"},
+            }
+        )
+    with pytest.raises(SpecError, match="lies 3.00 m from the nearest wire"):
+        from_spec(
+            {"family": "wire-structure", "wires": [{"from": [0, 0, 2], "to": [1, 0, 2]}], "feed": {"point": [0, 3, 2]}}
+        )
+    with pytest.raises(SpecError, match="runs past its end"):
+        from_spec(
+            {
+                "family": "wire-structure",
+                "wires": [{"name": "w", "from": [0, 0, 2], "to": [1, 0, 2]}],
+                "feed": {"wire": "w", "distance": "2 m"},
             }
         )
 

@@ -3,10 +3,10 @@
 Geometry (snrgain's own layout, in a scenario's antenna table):
 
     family = "wire-structure"
-    wires = [ { from = [0, 0, 0], to = [0, 0, 12], radius = "1 mm" },      # metres east, north, up
-              { from = [0, 0, 12], to = ["30 m", 0, "12 m"], gauge = 14 } ]
-    feed = { wire = 1, at = 0.0 }            # wire number (from 1), position along it from 'from' (0..1)
-    loads = [ { wire = 2, at = 1.0, resistance = "900 ohm" } ]
+    wires = [ { name = "lead", from = [0, 0, 0], to = [0, 0, 12], radius = "1 mm" },  # metres east, north, up
+              { name = "top", from = [0, 0, 12], to = ["30 m", 0, "12 m"], gauge = 14 } ]
+    feed = { point = [0, 0, 0.3] }                   # a point on the structure: the nearest segment
+    loads = [ { wire = "top", distance = "30 m", resistance = "900 ohm" } ]   # a named wire, from its 'from' end
 
 Wires ending at height 0 connect to the ground.  Each wire is cut into
 segments of at most a twentieth of a wavelength.  The engine solves the
@@ -52,6 +52,7 @@ Point3 = Annotated[tuple[float, float, float], BeforeValidator(_xyz)]
 
 
 class Wire(StrictModel):
+    name: str | None = None
     start: Point3 = Field(alias="from")
     end: Point3 = Field(alias="to")
     radius: quantity("length", gt=0.0, le=0.05) | None = None
@@ -77,8 +78,24 @@ class Wire(StrictModel):
 
 
 class Place(StrictModel):
-    wire: int = Field(ge=1)
-    at: float = Field(default=0.5, ge=0.0, le=1.0)
+    """Where a feed or load sits: a point on the structure (the nearest segment), or a named wire and a distance
+    along it from its 'from' end."""
+
+    point: Point3 | None = None
+    wire: str | None = None
+    distance: quantity("length", ge=0.0, le=5000.0) | None = None
+
+    @model_validator(mode="after")
+    def _one_way(self):
+        by_point = self.point is not None
+        by_wire = self.wire is not None or self.distance is not None
+        if by_point == by_wire:
+            raise ValueError(
+                'give point = [east, north, up], or wire = "its name" with distance = "..." from its \'from\' end'
+            )
+        if by_wire and (self.wire is None or self.distance is None):
+            raise ValueError("a place on a named wire needs both wire and distance")
+        return self
 
 
 class Load(Place):
@@ -97,10 +114,38 @@ class WireStructureParams(AntennaParams):
 
     @model_validator(mode="after")
     def _places(self):
-        for p in [self.feed, *self.loads]:
-            if p.wire > len(self.wires):
-                raise ValueError(f"wire {p.wire} is named, but there are {len(self.wires)} wires")
+        names = [w.name for w in self.wires if w.name]
+        if len(set(names)) != len(names):
+            raise ValueError("two wires have the same name")
+        by_name = {w.name: w for w in self.wires if w.name}
+        for label, p in [("feed", self.feed), *((f"loads {i + 1}", ld) for i, ld in enumerate(self.loads))]:
+            if p.wire is not None:
+                if p.wire not in by_name:
+                    raise ValueError(f"{label}: no wire named {p.wire!r}; the named wires are {sorted(by_name)}")
+                if p.distance > by_name[p.wire].length_m + 1e-9:
+                    raise ValueError(
+                        f"{label}: {p.distance:g} m along {p.wire!r} runs past its end "
+                        f"({by_name[p.wire].length_m:g} m long)"
+                    )
+            else:
+                gap = min(_distance_to_wire(p.point, w) for w in self.wires)
+                if gap > POINT_TOLERANCE_M:
+                    raise ValueError(
+                        f"{label}: the point {list(p.point)} lies {gap:.2f} m from the nearest wire "
+                        f"(at most {POINT_TOLERANCE_M:g} m)"
+                    )
         return self
+
+
+POINT_TOLERANCE_M = 0.5
+"""How far a feed or load point may lie from the wire it marks [m]."""
+
+
+def _distance_to_wire(point, wire: Wire) -> float:
+    """Distance [m] from a point to a wire (a segment in space)."""
+    a, b, p = (np.asarray(x, dtype=float) for x in (wire.start, wire.end, point))
+    t = float(np.clip(np.dot(p - a, b - a) / np.dot(b - a, b - a), 0.0, 1.0))
+    return float(np.linalg.norm(a + t * (b - a) - p))
 
 
 def _engine():
@@ -161,8 +206,20 @@ class WireStructure(TransformerFeed, Antenna):
             ctx.gn_card(2, 0, self.ground.permittivity, self.ground.conductivity_s_per_m, 0, 0, 0, 0)
 
         def seg_of(place):
-            n = segs[place.wire - 1]
-            return place.wire, int(min(n, max(1, np.floor(place.at * n) + 1)))
+            """(wire tag, segment) of a place: the segment holding the distance, or the nearest segment centre."""
+            if place.wire is not None:
+                i = next(k for k, w in enumerate(self.params.wires) if w.name == place.wire)
+                n, w = segs[i], self.params.wires[i]
+                return i + 1, int(min(n, max(1, np.floor(place.distance / w.length_m * n) + 1)))
+            best = None
+            for i, (w, n) in enumerate(zip(self.params.wires, segs)):
+                a, b = np.asarray(w.start), np.asarray(w.end)
+                centres = a + np.outer((np.arange(n) + 0.5) / n, b - a)
+                d = np.linalg.norm(centres - np.asarray(place.point), axis=1)
+                k = int(np.argmin(d))
+                if best is None or d[k] < best[0]:
+                    best = (d[k], i + 1, k + 1)
+            return best[1], best[2]
 
         for ld in self.params.loads:
             tag, s = seg_of(ld)
