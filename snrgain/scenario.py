@@ -23,7 +23,7 @@ from snrgain import receiver as rx
 from snrgain import targets as targetmod
 from snrgain.antennas import FAMILIES, Antenna, SpecError
 from snrgain.antennas.base import build as build_antenna
-from snrgain.antennas.base import pydantic_problems
+from snrgain.antennas.base import item_label, pydantic_problems
 from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES
 from snrgain.errors import ScenarioError
 from snrgain.fields import (
@@ -458,7 +458,7 @@ def load(
     try:
         model = ScenarioModel.model_validate(data)
     except ValidationError as exc:
-        problems.extend(pydantic_problems(exc))
+        problems.extend(pydantic_problems(exc, data=data))
         model = None
 
     # Antennas are validated by their own families (even when other sections failed).
@@ -472,7 +472,7 @@ def load(
         ref_spec = {**ref_spec, "family": "vertical"}
     cand_specs = data.get("candidate", []) if isinstance(data, dict) else []
     specs = [("reference", ref_spec)] + [
-        (f"candidate[{i}]", s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])
+        (item_label("candidate", i, s), s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])
     ]
     antennas: list[Antenna] = []
     chains: list[ChainSection | None] = []
@@ -485,7 +485,7 @@ def load(
             try:
                 own_chain = ChainSection.model_validate(raw_chain)
             except ValidationError as exc:
-                problems.extend(pydantic_problems(exc, f"{where}.chain"))
+                problems.extend(pydantic_problems(exc, f"{where}.chain", raw_chain))
                 continue
         try:
             spec2 = (
@@ -511,7 +511,7 @@ def load(
             try:
                 tgts.append(_target(t, model.site))
             except ValueError as exc:
-                problems.append((f"target[{i}]", str(exc)))
+                problems.append((item_label("target", i, t.model_dump()), str(exc)))
     data_dir = None
     if model is not None and model.noise.atmospheric.needs_data:
         try:

@@ -249,7 +249,10 @@ def test_bad_builder_input_is_exit_2(tmp_path, extra, field):
 
 def test_empty_hours_and_reversed_ranges_are_exit_2(tmp_path):
     cases = [
-        (MINIMAL.replace("elevation = [10, 20]\n", "elevation = [10, 20]\nutc_hours = []\n"), "target.0.utc_hours"),
+        (
+            MINIMAL.replace("elevation = [10, 20]\n", "elevation = [10, 20]\nutc_hours = []\n"),
+            'target 1 ("north-east").utc_hours',
+        ),
         (
             MINIMAL.replace(
                 'ground = "moist loam"', 'ground = { conductivity = ["8 mS/m", "2 mS/m"], permittivity = 13 }'

@@ -127,5 +127,5 @@ def test_antenna_chain_errors_name_the_antenna(minimal_text):
         + '\n[[candidate]]\nname = "x"\nfamily = "isotropic"\n'
         + 'chain = { feedline = { cable = "RG-1" , length = "10 m"} }\n'
     )
-    with pytest.raises(ScenarioError, match=r"candidate\[1\]\.chain\.feedline"):
+    with pytest.raises(ScenarioError, match=r"candidate 2 \(\"x\"\)\.chain\.feedline"):
         load(bad)

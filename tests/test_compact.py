@@ -199,7 +199,7 @@ def test_array_bad_input():
         arr.gain_linear(F, np.array([0.0]), np.array([0.1]))
     with pytest.raises(SpecError, match="steering = 'auto'"):
         from_spec({"family": "array", "elements": [{"family": "isotropic", "delay": "10 ns"}]})
-    with pytest.raises(SpecError, match="elements\\[0\\].height"):
+    with pytest.raises(SpecError, match="elements 1.height"):
         from_spec({"family": "array", "elements": [{"family": "vertical", "height": "-5 m"}]})
     with pytest.raises(SpecError, match="delays has 1 entries"):
         from_spec(
@@ -269,7 +269,7 @@ def test_wire_structure_refuses_low_wires_over_lossy_ground():
             "ground": "moist loam",
         }
     )
-    with pytest.raises(ValueError, match="wires\\[0\\].*Sommerfeld"):
+    with pytest.raises(ValueError, match="wires 1: .*Sommerfeld"):
         w.check_frequency(F)
     with pytest.raises(SpecError, match="no wire named 'top'"):
         from_spec(

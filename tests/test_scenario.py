@@ -80,7 +80,8 @@ def test_every_problem_reported_at_once(minimal_text):
 def test_candidate_problems_carry_their_index(minimal_text):
     text = minimal_text + '\n[[candidate]]\nname = "v"\nfamily = "vertical"\nheight = 7\n'
     err = _problems(text)
-    assert any(p == "candidate[1].height" and "bare number" in m for p, m in err.problems)
+    # Items count from 1 and carry their name: the second candidate is "v".
+    assert any(p == 'candidate 2 ("v").height' and "bare number" in m for p, m in err.problems)
 
 
 def test_duplicate_and_missing_candidate_names(minimal_text):
@@ -100,7 +101,7 @@ def test_local_source_needs_exactly_one_level(minimal_text):
     err = _problems(text)
     assert any("exactly one of level" in m for _, m in err.problems)
     err = _problems(minimal_text + '\n[[noise.local]]\nname = "n"\nbearing = 90\nlevel = "S12"\n')
-    assert any("noise.local.0.level" == p for p, _ in err.problems)
+    assert any('noise.local 1 ("n").level' == p for p, _ in err.problems)
 
 
 def test_s_units_and_dbm_levels(minimal_text):

@@ -37,7 +37,7 @@ from typing import Any, Literal
 import numpy as np
 from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
 
-from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, register
+from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, item_label, register
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import SI_CONTEXT, Bearing, GroundField, PlanPoint, quantity
 from snrgain.ground import C_M_PER_S
@@ -124,7 +124,7 @@ class Array(Antenna):
         problems = []
         families = set()
         for i, raw in enumerate(params.elements):
-            where = f"elements[{i}]"
+            where = item_label("elements", i, raw)
             if not isinstance(raw, dict):
                 problems.append((where, "an element is a table of keys"))
                 continue

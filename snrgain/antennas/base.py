@@ -150,14 +150,60 @@ def register(name: str, params: type[AntennaParams], summary: str):
     return deco
 
 
-def pydantic_problems(exc: ValidationError, prefix: str = "") -> list[tuple[str, str]]:
-    """(field path, message) pairs from a pydantic error, with the input shown."""
+_UNION_LABELS = {
+    "str",
+    "GroundConstants",
+    "float",
+    "int",
+    "list[float]",
+    "tuple[float, float]",
+    "bool",
+    "is-instance[Ground]",
+    "function-before[check(), float]",
+    "list[int]",
+    "dict[str,any]",
+}
+
+
+def item_label(key: str, index: int, item) -> str:
+    """One list item in a field path: counted from 1 and named where it has a name, e.g.
+    ``candidate 5 ("BOG toward Europe")``.
+
+    >>> item_label("candidate", 4, {"name": "BOG toward Europe"})
+    'candidate 5 ("BOG toward Europe")'
+    >>> item_label("elevation", 1, 20.0)
+    'elevation 2'
+    """
+    name = item.get("name") if isinstance(item, dict) else None
+    return f"{key} {index + 1}" + (f' ("{name}")' if isinstance(name, str) and name else "")
+
+
+def field_path(loc, data=None, prefix: str = "") -> str:
+    """A pydantic error location as the path users read: keys joined by dots, list items counted from 1 and
+    named (:func:`item_label`), union-branch labels dropped."""
+    parts = [] if not prefix else [prefix]
+    node = data
+    key = None
+    for part in loc:
+        if isinstance(part, str) and (part in _UNION_LABELS or part.startswith("function-")):
+            continue
+        if isinstance(part, int) and parts and key is not None:
+            item = node[part] if isinstance(node, list) and -len(node) <= part < len(node) else None
+            parts[-1] = item_label(key, part, item)
+            node, key = item, None
+            continue
+        parts.append(str(part))
+        key = str(part)
+        node = node.get(part) if isinstance(node, dict) else None
+    return ".".join(parts)
+
+
+def pydantic_problems(exc: ValidationError, prefix: str = "", data=None) -> list[tuple[str, str]]:
+    """(field path, message) pairs from a pydantic error, with the input shown; ``data`` is the input validated
+    (to name list items)."""
     out = []
     for err in exc.errors():
-        loc = [str(x) for x in err.get("loc", ()) if not str(x).startswith("function-")]
-        # Drop pydantic's union-branch labels (type names) from the path.
-        loc = [x for x in loc if x not in {"str", "GroundConstants", "float", "int", "list[float]"}]
-        path = ".".join(filter(None, [prefix, *loc]))
+        path = field_path(err.get("loc", ()), data, prefix)
         msg = err.get("msg", "invalid")
         msg = msg.removeprefix("Value error, ")
         typ = err.get("type", "")
@@ -193,7 +239,7 @@ def validate_spec(spec: dict, prefix: str = "", *, si: bool = False) -> AntennaP
     try:
         return FAMILIES[family].params.model_validate(spec, context=SI_CONTEXT if si else None)
     except ValidationError as exc:
-        raise SpecError(pydantic_problems(exc, prefix)) from None
+        raise SpecError(pydantic_problems(exc, prefix, spec)) from None
 
 
 def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None, si: bool = False) -> Antenna:

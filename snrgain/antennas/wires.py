@@ -178,7 +178,7 @@ class WireStructure(TransformerFeed, Antenna):
             low = min(w.start[2], w.end[2])
             if not vertical and low < MIN_LOSSY_HEIGHT_WAVELENGTHS * lam:
                 raise ValueError(
-                    f"wires[{i}]: at {low:g} m it is lower than {MIN_LOSSY_HEIGHT_WAVELENGTHS} wavelength "
+                    f"wires {i + 1}: at {low:g} m it is lower than {MIN_LOSSY_HEIGHT_WAVELENGTHS} wavelength "
                     f"({MIN_LOSSY_HEIGHT_WAVELENGTHS * lam:.1f} m) over lossy ground, where the NEC-2 engine's "
                     "Sommerfeld solution is unreliable; raise it, use ground = 'perfect', or a family of snrgain's "
                     "own (beverage, bog, terminated-loop)"
