@@ -132,14 +132,14 @@ Elevation = quantity("angle", ge=0.0, le=np.pi / 2)
 class StrictModel(BaseModel):
     """Base for every input model: unknown keys are errors."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
 
 
 class WireSize(StrictModel):
     """The wire's size: AWG gauge or diameter (default AWG 14).  Mixed into the families made of wire."""
 
     gauge: int | None = Field(default=None, ge=-3, le=40, description="AWG gauge")
-    diameter: quantity("length", gt=0.0, le=0.02) | None = None
+    diameter: quantity("length", ge=2e-5, le=0.02) | None = None
 
     @model_validator(mode="after")
     def _one_size(self):

@@ -88,8 +88,17 @@ def _check_hours(v):
     return v
 
 
-Months = Annotated[list[int], Field(min_length=1), AfterValidator(_check_months)]
-Hours = Annotated[list[float], Field(min_length=1), AfterValidator(_check_hours)]
+Months = Annotated[list[int], Field(min_length=1, max_length=12), AfterValidator(_check_months)]
+Hours = Annotated[list[float], Field(min_length=1, max_length=96), AfterValidator(_check_hours)]
+
+MAX_ITEMS = 64
+"""The most targets, candidates or local sources a scenario may hold."""
+MIN_BAND_RAD = float(np.radians(1.0))
+"""The narrowest band of target elevations [rad]."""
+MAX_MIN_ELEVATION_RAD = float(np.radians(45.0))
+"""The highest lowest-arrival angle of a target by place [rad]: higher, the hop geometry has no path."""
+MAX_NESTING = 32
+"""The deepest nesting of tables and arrays a scenario file may have."""
 
 
 class Time(StrictModel):
@@ -100,7 +109,7 @@ class Time(StrictModel):
 class Sector(StrictModel):
     start: Bearing = Field(alias="from")
     stop: Bearing = Field(alias="to")
-    contrast: Decibels = 10.0
+    contrast: decibels(-60.0, 60.0) = 10.0
 
 
 class ManMade(StrictModel):
@@ -178,18 +187,18 @@ class Noise(StrictModel):
     man_made: ManMade = ManMade()
     atmospheric: Atmospheric = Atmospheric()
     galactic: Galactic = Galactic()
-    local: list[LocalSource] = Field(default_factory=list)
+    local: list[LocalSource] = Field(default_factory=list, max_length=MAX_ITEMS)
 
 
 class Target(StrictModel):
     name: str
-    weight: float = Field(default=1.0, gt=0.0)
+    weight: float = Field(default=1.0, gt=0.0, le=1000.0)
     bearing: Bearing | None = None
     elevation: list[Elevation] | None = None
     latitude: Latitude | None = None
     longitude: Longitude | None = None
     layer_height: quantity("length", ge=80e3, le=1000e3) = targetmod.DEFAULT_LAYER_HEIGHT_M
-    min_elevation: Elevation = targetmod.DEFAULT_MIN_ELEVATION_RAD
+    min_elevation: quantity("angle", ge=0.0, le=MAX_MIN_ELEVATION_RAD) = targetmod.DEFAULT_MIN_ELEVATION_RAD
     months: Months | None = None
     """The months this target is listened for (default: [time] months)."""
     utc_hours: Hours | None = None
@@ -218,6 +227,11 @@ class Target(StrictModel):
             raise ValueError("a target by bearing needs elevation = [low, high] in degrees")
         if self.elevation is not None and self.elevation[1] < self.elevation[0]:
             raise ValueError("elevation range is reversed; write [low, high]")
+        if self.elevation is not None and self.elevation[1] - self.elevation[0] < MIN_BAND_RAD:
+            raise ValueError(
+                f"elevation range {[round(float(np.degrees(x)), 3) for x in self.elevation]} deg has no "
+                "width; give [low, high] at least 1 deg apart, e.g. [5, 25]"
+            )
         return self
 
 
@@ -292,9 +306,9 @@ class ScenarioModel(StrictModel):
     band: BandSection
     time: Time = Time()
     noise: Noise = Noise()
-    target: list[Target] = Field(min_length=1)
+    target: list[Target] = Field(min_length=1, max_length=MAX_ITEMS)
     reference: dict[str, Any] | None = None
-    candidate: list[dict[str, Any]] = Field(min_length=1)
+    candidate: list[dict[str, Any]] = Field(min_length=1, max_length=MAX_ITEMS)
     receiver: Receiver = Receiver()
     chain: ChainSection = ChainSection()
     compute: Compute = Compute()
@@ -422,10 +436,39 @@ def _raw_ground(site) -> str | dict | None:
 def read_source(source: str | Path) -> tuple[dict, str, Path | None]:
     """A scenario file's (or TOML text's) raw tables, its label and the folder its relative paths start from."""
     text, label, base_dir = _read(source)
+    return parse_toml(text, label), label, base_dir
+
+
+def parse_toml(text: str, label: str) -> dict:
+    """TOML text as tables; ScenarioError for text that is not TOML, integers too long, nesting too deep."""
     try:
-        return tomllib.loads(text), label, base_dir
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ScenarioError(label, [("", f"not valid TOML: {exc}")]) from None
+    except RecursionError:
+        raise ScenarioError(
+            label, [("", f"tables or arrays nested too deeply (at most {MAX_NESTING} levels)")]
+        ) from None
+    except ValueError as exc:  # e.g. an integer of thousands of digits
+        raise ScenarioError(label, [("", f"not valid TOML: {exc}")]) from None
+    path = _too_deep(data)
+    if path is not None:
+        raise ScenarioError(label, [(path, f"tables or arrays nested too deeply (at most {MAX_NESTING} levels)")])
+    return data
+
+
+def _too_deep(data) -> str | None:
+    """The path of the first value nested deeper than MAX_NESTING, or None."""
+    stack = [(data, 0, "")]
+    while stack:
+        node, depth, path = stack.pop()
+        if depth > MAX_NESTING:
+            return path
+        if isinstance(node, dict):
+            stack.extend((v, depth + 1, f"{path}.{k}" if path else str(k)) for k, v in node.items())
+        elif isinstance(node, list):
+            stack.extend((v, depth + 1, path) for v in node)
+    return None
 
 
 def antenna_from_table(spec: dict, where: str, *, site_ground, base_dir: Path | None, freq_hz: float) -> Antenna:
@@ -654,12 +697,35 @@ def _read(source) -> tuple[str, str, Path | None]:
     if isinstance(source, Path) or looks_like_path:
         path = Path(source)
         try:
-            return path.read_text(encoding="utf-8"), str(path), path.resolve().parent
+            raw = path.read_bytes()
         except OSError as exc:
             raise ScenarioError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
+        if len(raw) > MAX_FILE_BYTES:
+            raise ScenarioError(
+                str(path),
+                [("", f"the file is {len(raw)} bytes; a scenario is at most {MAX_FILE_BYTES // 1_000_000} MB")],
+            )
+        return decode_text(raw, str(path)), str(path), path.resolve().parent
     if isinstance(source, str):
         return source, "<text>", None
     raise ScenarioError("<input>", [("", f"a scenario is a path, TOML text or a dict; got {type(source).__name__}")])
+
+
+MAX_FILE_BYTES = 5_000_000
+"""The largest scenario or readings file read [bytes]."""
+
+
+def decode_text(raw: bytes, label: str) -> str:
+    """UTF-8 text of a file; ScenarioError naming the line and column of the first byte that is not UTF-8."""
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = raw.count(b"\n", 0, exc.start) + 1
+        col = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1
+        raise ScenarioError(
+            label,
+            [("", f"line {line}, column {col}: byte 0x{raw[exc.start]:02x} is not UTF-8 text; save the file as UTF-8")],
+        ) from None
 
 
 def _target(t: Target, site: SiteSection) -> targetmod.TargetDirections:

@@ -5,10 +5,10 @@ quantity in a scenario, a readings file or an option goes through here; the
 rest of the code sees SI floats.
 
 Grammar (no expressions are evaluated): a decimal number, optionally with an
-exponent, then at most one unit, a word or a word over a word ("mS/m").  The
-unit is looked up once (pint's registry, cached) and must be of the expected
-dimension.  ``"2,5 m"``, ``"8 10 ft"``, ``"3 m; 2"`` or ``"9**9**9 m"`` are
-refused, not guessed at.
+exponent, then at most one unit from the set allowed for the field's dimension
+(:data:`UNITS`; an unknown unit is named with the allowed ones).  ``"2,5 m"``,
+``"8 10 ft"``, ``"3 m; 2"``, ``"9**9**9 m"`` or ``"180 furlongs"`` are refused,
+not guessed at.
 
 Levels in dB are parsed here too: ``"-95 dBm"`` (power), ``"S7"`` or
 ``"S9+10"`` (S-units per IARU Region 1 Technical Recommendation R.1: S9 is
@@ -28,11 +28,10 @@ Levels in dB are parsed here too: ``"-95 dBm"`` (power), ``"S7"`` or
 from __future__ import annotations
 
 import re
-from functools import lru_cache
 
 import numpy as np
 
-# Dimension name -> (SI unit for pint, example for messages, are bare numbers allowed)
+# Dimension name -> (SI unit, example for messages, are bare numbers allowed)
 DIMENSIONS: dict[str, tuple[str, str, bool]] = {
     "length": ("meter", "'40 m' or '130 ft'", False),
     "frequency": ("hertz", "'1.83 MHz' or '500 Hz'", False),
@@ -59,11 +58,41 @@ class QuantityError(ValueError):
     """A value that is not a quantity of the expected kind."""
 
 
-@lru_cache(maxsize=1)
-def registry():
-    import pint
-
-    return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+_FT = 0.3048
+UNITS: dict[str, dict[str, float]] = {
+    "length": {
+        "m": 1.0,
+        "meter": 1.0,
+        "meters": 1.0,
+        "metre": 1.0,
+        "metres": 1.0,
+        "cm": 0.01,
+        "mm": 1e-3,
+        "km": 1e3,
+        "ft": _FT,
+        "foot": _FT,
+        "feet": _FT,
+        "in": 0.0254,
+        "inch": 0.0254,
+        "inches": 0.0254,
+        "yd": 0.9144,
+        "mi": 1609.344,
+    },
+    "frequency": {"Hz": 1.0, "kHz": 1e3, "MHz": 1e6, "GHz": 1e9},
+    "conductivity": {"S/m": 1.0, "mS/m": 1e-3, "uS/m": 1e-6, "\u00b5S/m": 1e-6, "\u03bcS/m": 1e-6},
+    "resistance": {"ohm": 1.0, "ohms": 1.0, "\u03a9": 1.0, "kohm": 1e3, "k\u03a9": 1e3, "Mohm": 1e6},
+    "angle": {
+        "deg": np.pi / 180,
+        "degree": np.pi / 180,
+        "degrees": np.pi / 180,
+        "\u00b0": np.pi / 180,
+        "rad": 1.0,
+        "radian": 1.0,
+        "radians": 1.0,
+    },
+    "time": {"s": 1.0, "ms": 1e-3, "us": 1e-6, "\u00b5s": 1e-6, "\u03bcs": 1e-6, "ns": 1e-9},
+}
+"""The units each dimension accepts, and the SI value of one of each."""
 
 
 def _reject_non_text(value, what: str, example: str) -> None:
@@ -113,24 +142,19 @@ def _bare_scale(dimension: str) -> float:
     return float(np.pi / 180.0) if dimension == "angle" else 1.0
 
 
-@lru_cache(maxsize=512)
 def _unit_scale(unit: str, dimension: str) -> float:
-    """SI value of one ``unit`` of ``dimension`` (looked up once; a single unit name, never an expression)."""
-    import pint
-
-    si_unit, example, _ = DIMENSIONS[dimension]
-    text = re.sub(r"\s+", "", unit).replace("\u03a9", "ohm").replace("\u00b0", "degree")
-    ureg = registry()
-    try:
-        q = ureg.Quantity(1.0, ureg.parse_units(text))
-    except Exception:  # pint raises several kinds for an unknown name
-        raise QuantityError(f"unknown unit {unit!r} for {dimension}; write it like {example}") from None
-    if q.dimensionless and dimension != "angle":
-        raise QuantityError(f"{unit!r} is not a unit of {dimension}; write it like {example}")
-    try:
-        return float(q.to(si_unit).magnitude)
-    except (pint.errors.DimensionalityError, TypeError, ValueError):
-        raise QuantityError(f"{unit!r} is not a unit of {dimension}; write it like {example}") from None
+    """SI value of one ``unit`` of ``dimension``; QuantityError naming the allowed units otherwise."""
+    table = UNITS[dimension]
+    key = re.sub(r"\s+", "", unit)
+    if key in table:
+        return table[key]
+    lowered = {k.lower(): v for k, v in table.items()}
+    if key.lower() in lowered and dimension != "frequency":  # "M" and "m" differ only for frequencies
+        return lowered[key.lower()]
+    for other, units in UNITS.items():
+        if other != dimension and key in units:
+            raise QuantityError(f"{unit!r} is a unit of {other}, not of {dimension}; use one of {', '.join(table)}")
+    raise QuantityError(f"unknown unit {unit!r} for {dimension}; use one of {', '.join(table)}")
 
 
 def parse_attenuation_db_per_100m(value) -> float:

@@ -64,7 +64,7 @@ class ArrayParams(AntennaParams):
 class PhasedVerticalsParams(AntennaParams):
     family: Literal["phased-verticals"]
     positions: list[PlanPoint] = Field(min_length=1, max_length=64)
-    height: quantity("length", gt=0.0, le=60.0)
+    height: quantity("length", ge=0.05, le=60.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     top_loading: quantity("length", ge=0.0, le=60.0) = 0.0
     steering: Literal["auto", "given"] = "auto"

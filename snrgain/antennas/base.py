@@ -272,7 +272,7 @@ def from_si(family: str, **values) -> Antenna:
     >>> from_si("beverage", length=-1.0, height=2.5)
     Traceback (most recent call last):
     ...
-    snrgain.errors.SpecError: length: must be > 0 m and <= 3000 m; got -1.0
+    snrgain.errors.SpecError: length: must be between 1 m and 3000 m; got -1.0
     """
     return build({"family": family, **values}, si=True)
 

@@ -77,7 +77,7 @@ MAX_HEIGHT_WAVELENGTHS = 0.1
 class WireParams(WireSize, AntennaParams):
     """Keys shared by the long-wire families."""
 
-    length: quantity("length", gt=0.0, le=3000.0)
+    length: quantity("length", ge=1.0, le=3000.0)
     bearing: Bearing = 0.0
     feed_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
     coax: Literal[50, 75] = 75
@@ -126,7 +126,7 @@ class BogParams(WireParams):
     family: Literal["bog"]
     height: quantity("length", gt=0.0, le=0.3) = 0.02
     depth: quantity("length", ge=0.0, le=0.5) = 0.0
-    insulation_thickness: quantity("length", gt=0.0, le=0.02) = 0.8e-3
+    insulation_thickness: quantity("length", ge=1e-5, le=0.02) = 0.8e-3
     insulation_permittivity: float = Field(default=3.0, ge=1.0, le=20.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
     far_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
@@ -135,7 +135,7 @@ class BogParams(WireParams):
 class TwoWireParams(WireParams):
     family: Literal["two-wire"]
     height: quantity("length", gt=0.05, le=30.0)
-    spacing: quantity("length", gt=0.0, le=2.0) = 0.3
+    spacing: quantity("length", ge=0.01, le=2.0) = 0.3
     port: Literal["forward", "reverse"] = "forward"
     far_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
 

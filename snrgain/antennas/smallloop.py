@@ -39,9 +39,9 @@ from snrgain.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coeffici
 
 class SmallLoopParams(WireSize, AntennaParams):
     family: Literal["small-loop"]
-    width: quantity("length", gt=0.0, le=20.0)
-    loop_height: quantity("length", gt=0.0, le=20.0)
-    height: quantity("length", gt=0.0, le=50.0)
+    width: quantity("length", ge=0.05, le=20.0)
+    loop_height: quantity("length", ge=0.05, le=20.0)
+    height: quantity("length", ge=0.05, le=50.0)
     bearing: Bearing = 0.0
     turns: int = Field(default=1, ge=1, le=50)
     ground: GroundField | None = None

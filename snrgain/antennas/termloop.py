@@ -54,9 +54,9 @@ AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 class TerminatedLoopParams(WireSize, AntennaParams):
     family: Literal["terminated-loop"]
     shape: Literal["rectangle", "triangle", "diamond"] = "rectangle"
-    width: quantity("length", gt=0.0, le=60.0)
-    loop_height: quantity("length", gt=0.0, le=30.0)
-    height: quantity("length", gt=0.0, le=30.0) = 1.0
+    width: quantity("length", ge=0.05, le=60.0)
+    loop_height: quantity("length", ge=0.05, le=30.0)
+    height: quantity("length", ge=0.0, le=30.0) = 1.0
     """Height of the loop's lowest point above the ground [m]."""
     bearing: Bearing = 0.0
     termination: quantity("resistance", ge=0.0, le=20000.0) | Literal["auto"] = "auto"

@@ -59,7 +59,7 @@ def gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
 
 class VerticalParams(AntennaParams):
     family: Literal["vertical"]
-    height: quantity("length", gt=0.0, le=300.0)
+    height: quantity("length", ge=0.05, le=300.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     top_loading: quantity("length", ge=0.0, le=300.0) = 0.0
     """Electrical length added by a top hat or top wires [m]: the current runs as sin(k (h + top_loading - z))."""

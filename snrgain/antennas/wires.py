@@ -55,7 +55,7 @@ class Wire(StrictModel):
     name: str | None = None
     start: Point3 = Field(alias="from")
     end: Point3 = Field(alias="to")
-    radius: quantity("length", gt=0.0, le=0.05) | None = None
+    radius: quantity("length", ge=1e-5, le=0.05) | None = None
     gauge: int | None = Field(default=None, ge=-3, le=40)
 
     @model_validator(mode="after")
