@@ -22,16 +22,16 @@ import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Annotated, Any
 
 import numpy as np
+from pydantic import BeforeValidator
 from scipy.optimize import least_squares
 
 from snrgain import lines
-from snrgain.constants import WIRE_FAMILIES
+from snrgain.constants import FREQ_RANGE_HZ, WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S, Ground
-from snrgain.readings import parse_impedance, read_toml
-from snrgain.units import parse_quantity
+from snrgain.readings import read_toml
 
 DEFAULT_VF_UNCERTAINTY = 0.02
 """Standard uncertainty of a measured velocity factor [-] (assumed)."""
@@ -234,44 +234,55 @@ class WireReadings:
 
 
 def load_readings(path: str | Path) -> WireReadings:
-    """Read a calibration readings file (format: :data:`EXAMPLE`); errors name the file and the entry."""
-    from snrgain.antennas import from_spec
+    """Read a calibration readings file (format: :data:`EXAMPLE`); ReadingsError naming the file and every
+    problem at once."""
+    from pydantic import Field
+
+    from snrgain.antennas.base import SpecError, build
+    from snrgain.errors import ReadingsError
+    from snrgain.fields import StrictModel, quantity
+    from snrgain.readings import impedance_field, validate
+
+    Impedance = Annotated[complex, BeforeValidator(impedance_field)]
+    Frequency = quantity("frequency", ge=FREQ_RANGE_HZ[0] / 10, le=FREQ_RANGE_HZ[1])
+
+    class OpenShortEntry(StrictModel):
+        frequency: Frequency
+        open: Impedance
+        short: Impedance
+
+    class ResonanceEntry(StrictModel):
+        frequency: Frequency
+
+    class ReadingsFile(StrictModel):
+        wire: dict[str, Any]
+        open_short: list[OpenShortEntry] = Field(default_factory=list, max_length=200)
+        resonance: list[ResonanceEntry] = Field(default_factory=list, max_length=200)
 
     path = Path(path)
-    data = read_toml(path, allowed={"wire", "open_short", "resonance"})
-    if "wire" not in data:
-        raise ValueError(f"{path}: section [wire] is missing (the wire as built; see --example)")
-    spec = dict(data["wire"])
-    spec.setdefault("family", "bog")
-    ant = from_spec(spec)
-    if ant.family not in WIRE_FAMILIES:
-        raise ValueError(
-            f"{path}: wire.family: calibration needs a long-wire family ({', '.join(WIRE_FAMILIES)}), "
-            f"not {ant.family!r}"
-        )
-    out = WireReadings(ant)
-    for i, r in enumerate(data.get("open_short", [])):
-        extra = set(r) - {"frequency", "open", "short"}
-        if extra:
-            raise ValueError(f"{path}: open_short[{i}]: unknown key(s) {sorted(extra)}")
-        try:
-            f = parse_quantity(r["frequency"], "frequency")
-            out.open_short.append(
-                OpenShort(
-                    f,
-                    parse_impedance(r["open"], f"open_short[{i}].open"),
-                    parse_impedance(r["short"], f"open_short[{i}].short"),
+    f = validate(ReadingsFile, read_toml(path), path)
+    spec = {"family": "bog", **f.wire}
+    if spec.get("family") not in WIRE_FAMILIES:
+        raise ReadingsError(
+            str(path),
+            [
+                (
+                    "wire.family",
+                    f"calibration needs a long-wire family ({', '.join(WIRE_FAMILIES)}); got {spec.get('family')!r}",
                 )
-            )
-        except KeyError as exc:
-            raise ValueError(f"{path}: open_short[{i}]: key {exc.args[0]!r} is missing") from None
-    for i, r in enumerate(data.get("resonance", [])):
-        if set(r) != {"frequency"}:
-            raise ValueError(f"{path}: resonance[{i}]: give only frequency")
-        out.resonance_hz.append(parse_quantity(r["frequency"], "frequency"))
-    if not out.open_short and not out.resonance_hz:
-        raise ValueError(f"{path}: no readings; add [[open_short]] or [[resonance]] entries (see --example)")
-    return out
+            ],
+        )
+    try:
+        ant = build(spec, "wire")
+    except SpecError as exc:
+        raise ReadingsError(str(path), exc.problems) from None
+    if not f.open_short and not f.resonance:
+        raise ReadingsError(
+            str(path), [("", "no readings; add [[open_short]] or [[resonance]] entries (see --example)")]
+        )
+    return WireReadings(
+        ant, [OpenShort(r.frequency, r.open, r.short) for r in f.open_short], [r.frequency for r in f.resonance]
+    )
 
 
 @dataclass

@@ -20,3 +20,7 @@ class SpecError(ValueError):
     def __init__(self, problems: list[tuple[str, str]]):
         self.problems = problems
         super().__init__("; ".join(f"{p}: {m}" if p else m for p, m in problems))
+
+
+class ReadingsError(ScenarioError):
+    """An invalid readings file (calibrate, locate): ``problems`` is a list of (field path, message)."""

@@ -23,12 +23,19 @@ class OutputExistsError(FileExistsError):
 
 
 def check_writable(path: str | Path, *, overwrite: bool) -> Path:
-    """Refuse an existing file unless ``overwrite``; check that the folder exists.  Returns the path."""
+    """Check, before any work, that ``path`` can be written: not an existing file unless ``overwrite``, never a
+    link, a folder or a device, in a folder that exists and can be written.  Returns the path."""
     p = Path(path)
+    if p.is_symlink():
+        raise ValueError(f"{p} is a symbolic link; give the file it points to, or another name")
+    if p.exists() and not p.is_file():
+        raise ValueError(f"{p} exists and is not a regular file (a folder or a device); give a file name")
     if p.exists() and not overwrite:
         raise OutputExistsError(p)
     if not p.parent.exists():
         raise FileNotFoundError(f"folder {p.parent} does not exist")
+    if not os.access(p.parent, os.W_OK | os.X_OK):
+        raise PermissionError(f"folder {p.parent} cannot be written")
     return p
 
 
@@ -36,7 +43,9 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
     """Write ``content`` to ``path`` whole or not at all.
 
     ``content`` is text (UTF-8), bytes, or a function that writes the file at the temporary path it is given
-    (e.g. ``lambda p: fig.savefig(p)``).  The new file gets the permissions the user's umask gives new files.
+    (e.g. ``lambda p: fig.savefig(p)``).  A new file gets the permissions the user's umask gives new files; a
+    replaced one keeps its own.  Interrupted (an exception, Ctrl-C, or SIGTERM through the command line's
+    handler), the temporary file is removed and the old file stays as it was.
     """
     p = check_writable(path, overwrite=overwrite)
     fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=p.suffix, dir=p.parent)
@@ -51,9 +60,13 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
                 fh.write(data)
         if not overwrite and p.exists():
             raise OutputExistsError(p)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp_path, 0o666 & ~mask)
+        if p.is_file():  # a replaced file keeps its permissions
+            mode = p.stat().st_mode & 0o7777
+        else:
+            mask = os.umask(0)
+            os.umask(mask)
+            mode = 0o666 & ~mask
+        os.chmod(tmp_path, mode)
         os.replace(tmp_path, p)
     except BaseException:
         tmp_path.unlink(missing_ok=True)

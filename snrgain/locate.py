@@ -30,9 +30,9 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from noisemodels import p372
+from snrgain.constants import FREQ_RANGE_HZ
 from snrgain.readings import read_toml
 from snrgain.receiver import power_dbm
-from snrgain.units import parse_power_dbm, parse_quantity
 
 MAX_BEARING_SIGMA_DEG = 45.0
 
@@ -92,38 +92,52 @@ class NoiseReadings:
 
 
 def load_readings(path: str | Path) -> NoiseReadings:
-    """Read a noise readings file (format: :data:`EXAMPLE`); errors name the file and the reading."""
-    from snrgain.antennas import from_spec
+    """Read a noise readings file (format: :data:`EXAMPLE`); ReadingsError naming the file and every problem at
+    once (items counted from 1)."""
+    from typing import Any
 
-    data = read_toml(path, allowed={"frequency", "bandwidth", "ground", "antenna", "reading"})
-    for key in ("frequency", "bandwidth", "antenna", "reading"):
-        if key not in data:
-            raise ValueError(f"{path}: {key} is missing (see --example)")
-    f = parse_quantity(data["frequency"], "frequency")
-    b = parse_quantity(data["bandwidth"], "frequency")
-    ground = data.get("ground", "moist loam")
-    antennas = data["antenna"]
-    readings = []
-    for i, r in enumerate(data["reading"]):
-        where = f"{path}: reading[{i}]"
-        extra = set(r) - {"antenna", "bearing", "level"}
-        if extra:
-            raise ValueError(f"{where}: unknown key(s) {sorted(extra)}; allowed: antenna, bearing, level")
-        name = r.get("antenna")
-        if name not in antennas:
-            raise ValueError(f"{where}.antenna: {name!r} is not one of the [antenna.*] tables {sorted(antennas)}")
-        spec = {"ground": ground, **antennas[name]}
-        if "bearing" in r:
-            spec["bearing"] = r["bearing"]
+    from pydantic import Field
+
+    from snrgain.antennas.base import SpecError, build, item_label
+    from snrgain.errors import ReadingsError
+    from snrgain.fields import Bearing, GroundField, PowerDbm, StrictModel, quantity
+    from snrgain.readings import validate
+
+    class ReadingEntry(StrictModel):
+        antenna: str
+        bearing: Bearing | None = None
+        level: PowerDbm
+
+    class ReadingsFile(StrictModel):
+        frequency: quantity("frequency", ge=FREQ_RANGE_HZ[0], le=FREQ_RANGE_HZ[1])
+        bandwidth: quantity("frequency", ge=10.0, le=100e3)
+        ground: GroundField = "moist loam"
+        antenna: dict[str, dict[str, Any]] = Field(min_length=1, max_length=64)
+        reading: list[ReadingEntry] = Field(min_length=1, max_length=1000)
+
+    data = read_toml(path)
+    rf = validate(ReadingsFile, data, path)
+    problems, readings = [], []
+    for i, r in enumerate(rf.reading):
+        where = item_label("reading", i, None)
+        if r.antenna not in rf.antenna:
+            problems.append(
+                (f"{where}.antenna", f"{r.antenna!r} is not one of the [antenna.*] tables {sorted(rf.antenna)}")
+            )
+            continue
+        spec = {"ground": data.get("ground", "moist loam"), **rf.antenna[r.antenna]}
+        if r.bearing is not None:
+            spec["bearing"] = data["reading"][i]["bearing"]
         try:
-            level = parse_power_dbm(r.get("level"))
-        except ValueError as exc:
-            raise ValueError(f"{where}.level: {exc}") from None
-        ant = from_spec(spec)
-        ant.check_frequency(f)
-        label = name + (f" {r['bearing']}" if "bearing" in r else "")
-        readings.append(Reading(ant, level, label))
-    return NoiseReadings(f, b, readings)
+            ant = build(spec, f"antenna.{r.antenna}", freq_hz=rf.frequency)
+        except SpecError as exc:
+            problems.extend(exc.problems)
+            continue
+        label = r.antenna + (f" {data['reading'][i]['bearing']}" if r.bearing is not None else "")
+        readings.append(Reading(ant, r.level, label))
+    if problems:
+        raise ReadingsError(str(path), sorted(set(problems), key=problems.index))
+    return NoiseReadings(rf.frequency, rf.bandwidth, readings)
 
 
 class LocateError(ValueError):

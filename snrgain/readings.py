@@ -9,25 +9,56 @@
 from __future__ import annotations
 
 import re
-import tomllib
 from pathlib import Path
 
+import numpy as np
 
-def read_toml(path: str | Path, *, allowed: set[str]) -> dict:
-    """A readings file as a dict; errors name the file (cannot read, not TOML, unknown sections)."""
+
+def read_toml(path: str | Path, *, allowed: set[str] | None = None) -> dict:
+    """A readings file as a dict; ReadingsError naming the file (cannot read, not UTF-8, not TOML, too deep)."""
+    from snrgain.errors import ReadingsError, ScenarioError
+    from snrgain.scenario import MAX_FILE_BYTES, decode_text, parse_toml
+
     path = Path(path)
     try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
+        raw = path.read_bytes()
+        if len(raw) > MAX_FILE_BYTES:
+            raise ReadingsError(str(path), [("", f"the file is {len(raw)} bytes; at most {MAX_FILE_BYTES} are read")])
+        data = parse_toml(decode_text(raw, str(path)), str(path))
     except OSError as exc:
-        raise ValueError(f"{path}: cannot read ({exc.strerror or exc})") from None
-    except UnicodeDecodeError as exc:
-        raise ValueError(f"{path}: not UTF-8 text (byte {exc.start})") from None
-    except tomllib.TOMLDecodeError as exc:
-        raise ValueError(f"{path}: not valid TOML: {exc}") from None
-    unknown = set(data) - allowed
-    if unknown:
-        raise ValueError(f"{path}: unknown key(s) {sorted(unknown)}; allowed: {', '.join(sorted(allowed))}")
+        raise ReadingsError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
+    except ScenarioError as exc:
+        if isinstance(exc, ReadingsError):
+            raise
+        raise ReadingsError(exc.source, exc.problems) from None
+    if allowed is not None:
+        unknown = set(data) - allowed
+        if unknown:
+            raise ReadingsError(
+                str(path), [(k, f"unknown key; allowed: {', '.join(sorted(allowed))}") for k in sorted(unknown)]
+            )
     return data
+
+
+def validate(model, data: dict, path) -> object:
+    """``data`` validated against a pydantic model; ReadingsError listing every problem, items counted from 1."""
+    from pydantic import ValidationError
+
+    from snrgain.antennas.base import pydantic_problems
+    from snrgain.errors import ReadingsError
+
+    try:
+        return model.model_validate(data)
+    except ValidationError as exc:
+        raise ReadingsError(str(path), pydantic_problems(exc, data=data)) from None
+
+
+def impedance_field(value):
+    """A pydantic before-validator for an impedance [ohm]: [R, X] or '95-210j'."""
+    z = parse_impedance(value, "expected")
+    if not (np.isfinite(z.real) and np.isfinite(z.imag)):
+        raise ValueError(f"an impedance must be finite; got {value!r}")
+    return z
 
 
 def parse_impedance(value, where: str) -> complex:
@@ -45,4 +76,4 @@ def parse_impedance(value, where: str) -> complex:
             return complex(text)
         except ValueError:
             pass
-    raise ValueError(f"{where}: expected an impedance as [R, X] in ohm or a string like '95-210j', got {value!r}")
+    raise ValueError(f"{where} an impedance as [R, X] in ohm or a string like '95-210j'; got {value!r}")

@@ -131,7 +131,7 @@ def test_calibrate_command(tmp_path):
         'open = "abc"\nshort = [1, 2]\n'
     )
     res = runner.invoke(cli, ["calibrate", str(bad)])
-    assert res.exit_code == 2 and "open_short[0].open" in res.stderr
+    assert res.exit_code == 2 and "open_short 1.open" in res.stderr
 
 
 # -- the small loop -----------------------------------------------------------------

@@ -27,6 +27,19 @@ def cli():
     """
 
 
+def _end_cleanly_on_sigterm() -> None:
+    """A SIGTERM (kill) ends the command as Ctrl-C does, so that files being written are cleaned up."""
+    import signal
+
+    def handler(signum, frame):
+        raise KeyboardInterrupt
+
+    try:
+        signal.signal(signal.SIGTERM, handler)
+    except ValueError:  # not the main thread (e.g. under a test runner's thread)
+        pass
+
+
 cli.add_command(rank)
 cli.add_command(check)
 cli.add_command(new)
@@ -38,5 +51,12 @@ cli.add_command(report)
 cli.add_command(figures)
 cli.add_command(sweep)
 
-if __name__ == "__main__":  # pragma: no cover
+
+def main() -> None:
+    """The ``snrgain`` command."""
+    _end_cleanly_on_sigterm()
     cli()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import click
 
-from snrgain.errors import ScenarioError, SpecError
+from snrgain.errors import ReadingsError, ScenarioError, SpecError
 from snrgain.files import OutputExistsError
 from snrgain.units import QuantityError
 
@@ -51,6 +51,9 @@ def handle_errors(fn):
             fail("interrupted; nothing was written", EXIT_FAILURE)
         except OutputExistsError as exc:
             fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
+        except ReadingsError as exc:
+            n = len(exc.problems)
+            fail(f"invalid readings ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)
         except ScenarioError as exc:
             n = len(exc.problems)
             fail(f"invalid scenario ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)
