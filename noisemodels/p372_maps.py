@@ -47,6 +47,10 @@ HOW_TO_GET = (
 )
 
 
+MAX_COEFFICIENT = 1e6
+"""Larger magnitudes than any coefficient of the published files: a sign of a damaged file."""
+
+
 class P372DataError(ValueError):
     """The P.372 coefficient data are missing or unreadable."""
 
@@ -115,11 +119,17 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
         if current is None or not line.strip():
             continue
         try:
-            values[current].extend(float(x) for x in line.split())
+            row = [float(x) for x in line.split()]
         except ValueError:
             raise P372DataError(
                 f"{path}, line {line_no}: section {current}: not a number in {line.strip()!r}"
             ) from None
+        if not all(np.isfinite(x) and abs(x) < MAX_COEFFICIENT for x in row):
+            raise P372DataError(
+                f"{path}, line {line_no}: section {current}: a value out of range in {line.strip()!r} "
+                f"(coefficients lie within +-{MAX_COEFFICIENT:g}); the file is damaged"
+            )
+        values[current].extend(row)
     arrays = {}
     for name, expect in SECTIONS.items():
         if name not in values:

@@ -116,14 +116,26 @@ def load_readings(path: str | Path) -> NoiseReadings:
         reading: list[ReadingEntry] = Field(min_length=1, max_length=1000)
 
     data = read_toml(path)
-    rf = validate(ReadingsFile, data, path)
     problems, readings = [], []
-    for i, r in enumerate(rf.reading):
-        where = item_label("reading", i, None)
-        if r.antenna not in rf.antenna:
+    try:
+        rf = validate(ReadingsFile, data, path)
+    except ReadingsError as exc:  # go on to the cross-checks: every problem at once
+        problems, rf = list(exc.problems), None
+    tables = data.get("antenna") if isinstance(data.get("antenna"), dict) else {}
+    raw_readings = data.get("reading") if isinstance(data.get("reading"), list) else []
+    for i, r in enumerate(raw_readings):
+        name = r.get("antenna") if isinstance(r, dict) else None
+        if isinstance(name, str) and name not in tables:
             problems.append(
-                (f"{where}.antenna", f"{r.antenna!r} is not one of the [antenna.*] tables {sorted(rf.antenna)}")
+                (
+                    f"{item_label('reading', i, None)}.antenna",
+                    f"{name!r} is not one of the [antenna.*] tables {sorted(tables)}",
+                )
             )
+    if rf is None:
+        raise ReadingsError(str(path), problems)
+    for i, r in enumerate(rf.reading):
+        if r.antenna not in rf.antenna:
             continue
         spec = {"ground": data.get("ground", "moist loam"), **rf.antenna[r.antenna]}
         if r.bearing is not None:

@@ -568,6 +568,8 @@ def load(
             chain = chainmod.from_section(model.chain, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
         except ValueError as exc:
             problems.append(("receiver", str(exc)))
+    if model is not None and antennas and not problems:
+        problems.extend(_local_levels_readable(model.noise.local, antennas[0], freq))
     if problems:
         raise ScenarioError(label, problems)
     weights = np.array([t.weight for t in model.target])
@@ -620,6 +622,32 @@ def load(
         ),
         max_antennas=model.plan.max_antennas,
     )
+
+
+MIN_READING_GAIN = 1e-6
+"""Below this gain (-60 dBi) toward a local source, a level read on the reference cannot place the source."""
+
+
+def _local_levels_readable(local: list[LocalSource], reference: Antenna, freq_hz: float) -> list[tuple[str, str]]:
+    """A local source's level read on the reference antenna needs that antenna to receive from the source's
+    directions (the check the sky builder would fail on later)."""
+    from noisemodels.sky import compact_source_directions
+
+    out = []
+    for i, src in enumerate(local):
+        if src.level is None:
+            continue
+        d = compact_source_directions(src.bearing, src.elevation, src.spread)
+        if not np.any(reference.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):
+            out.append(
+                (
+                    f'noise.local {i + 1} ("{src.name}").level',
+                    f"the reference antenna receives nothing from bearing {np.degrees(src.bearing):g} deg, "
+                    f"elevation {np.degrees(src.elevation):g} deg, so a level read on it cannot be placed; "
+                    "give the level as fa instead",
+                )
+            )
+    return out
 
 
 def _receiver(r: Receiver, bandwidth_hz: float) -> rx.Receiver:

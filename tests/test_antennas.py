@@ -107,7 +107,8 @@ def test_tabulated_polarizations_sum(tmp_path):
     [
         ("azimuth_deg,elevation_deg,gain\n0,0,1\n", "unknown column"),
         ("azimuth_deg,gain_dbi\n0,1\n", "elevation_deg"),
-        ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,x\n90,90,1\n", "line 4: not a number"),
+        ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,x\n90,90,1\n", "line 4: not a finite number"),
+        ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,nan\n90,0,1\n90,90,1\n", "line 3: not a finite number"),
         ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,90,1\n90,0,1\n", "complete grid"),
         ("azimuth_deg,elevation_deg,gain_dbi\n0,0,1\n0,45,1\n90,0,1\n90,45,1\n", "cover 0 to 90"),
         ("# only a comment\n", "no header"),

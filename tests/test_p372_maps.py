@@ -270,3 +270,14 @@ def test_noise_command_table_and_json(tmp_path):
         env={p372_maps.ENV_VAR: ""},
     )
     assert res.exit_code == 2 and "COEFF01W.txt" in res.stderr
+
+
+def test_a_damaged_coefficient_file_is_refused(tmp_path):
+    # A value such as 1e308 in a used section once changed Fa silently; it names the file, line and section now.
+    text = (P372_DIR / "COEFF01W.txt").read_text(encoding="latin-1")
+    lines = text.splitlines()
+    start = next(i for i, ln in enumerate(lines) if p372_maps._HEADER.match(ln) and "FAKP" in ln.upper())
+    lines[start + 1] = "1e308 " + lines[start + 1]
+    (tmp_path / "COEFF01W.txt").write_text("\n".join(lines), encoding="latin-1")
+    with pytest.raises(p372_maps.P372DataError, match="out of range"):
+        p372_maps.read_coefficients(tmp_path / "COEFF01W.txt", 1)

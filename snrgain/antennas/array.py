@@ -94,23 +94,32 @@ def _si_or_parse(value, dimension: str, si: bool) -> float:
     return parse_quantity(value, dimension)
 
 
+def _number(value, what: str, where: str, lo: float, hi: float) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value):
+        raise ValueError(f"{where}.{what} must be a number; got {value!r}")
+    if not lo <= value <= hi:
+        raise ValueError(f"{where}.{what} must lie between {lo:g} and {hi:g}; got {value!r}")
+    return float(value)
+
+
 def _weights_from(entry: dict, where: str, *, si: bool = False):
     """(delay [s], phase [rad], amplitude) of one element's weight keys (``si``: bare numbers are s and m)."""
     delay = 0.0
     if "delay" in entry:
         delay = _si_or_parse(entry["delay"], "time", si)
+        if abs(delay) > 1e-3:
+            raise ValueError(f"{where}.delay must lie within 1 ms; got {entry['delay']!r}")
     if "delay_line" in entry:
         dl = entry["delay_line"]
         if not isinstance(dl, dict) or set(dl) - {"length", "velocity_factor"} or "length" not in dl:
             raise ValueError(f"{where}.delay_line: give {{ length = '...', velocity_factor = 0.66 }}")
-        vf = float(dl.get("velocity_factor", 0.66))
-        if not 0 < vf <= 1:
-            raise ValueError(f"{where}.delay_line.velocity_factor must lie in (0, 1]; got {vf!r}")
-        delay += _si_or_parse(dl["length"], "length", si) / (vf * C_M_PER_S)
-    phase = np.radians(float(entry.get("phase", 0.0)))
-    amp = float(entry.get("amplitude", 1.0))
-    if not 0 <= amp <= 100:
-        raise ValueError(f"{where}.amplitude must lie between 0 and 100; got {amp!r}")
+        vf = _number(dl.get("velocity_factor", 0.66), "delay_line.velocity_factor", where, 0.05, 1.0)
+        length = _si_or_parse(dl["length"], "length", si)
+        if not 0 <= length <= 10e3:
+            raise ValueError(f"{where}.delay_line.length must lie between 0 and 10 km; got {dl['length']!r}")
+        delay += length / (vf * C_M_PER_S)
+    phase = np.radians(_number(entry.get("phase", 0.0), "phase", where, -720.0, 720.0))
+    amp = _number(entry.get("amplitude", 1.0), "amplitude", where, 0.0, 100.0)
     return delay, phase, amp
 
 

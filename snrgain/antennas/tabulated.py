@@ -70,9 +70,12 @@ def read_pattern_csv(path: str | Path) -> dict[str, np.ndarray]:
         if len(cells) != len(names):
             raise ValueError(f"{path}, line {line_no}: {len(cells)} values, expected {len(names)}")
         try:
-            rows.append([float(c) for c in cells])
+            row = [float(c) for c in cells]
+            if not all(np.isfinite(x) for x in row):
+                raise ValueError
+            rows.append(row)
         except ValueError:
-            raise ValueError(f"{path}, line {line_no}: not a number in {ln.strip()!r}") from None
+            raise ValueError(f"{path}, line {line_no}: not a finite number in {ln.strip()!r}") from None
     if not rows:
         raise ValueError(f"{path}: header but no data rows")
     data = np.array(rows)

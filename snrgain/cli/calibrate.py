@@ -42,7 +42,12 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
         example_text=cal.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
     ):
         return
-    res = cal.calibrate(cal.load_readings(readings), expected_velocity_factor=expected_vf, permittivity=permittivity)
+    try:
+        res = cal.calibrate(
+            cal.load_readings(readings), expected_velocity_factor=expected_vf, permittivity=permittivity
+        )
+    except cal.ReadingError as exc:  # the readings cannot answer: say which file
+        raise ValueError(f"{readings}: {exc}") from None
     out = res.as_dict()
     if scenario is not None:
         text = Path(scenario).read_text(encoding="utf-8")

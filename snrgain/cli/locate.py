@@ -53,14 +53,17 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
     for target in (plot, write_to):
         check_output(target, overwrite=overwrite)
     data = loc.load_readings(Path(readings))
-    res = loc.locate(
-        data.readings,
-        freq_hz=data.freq_hz,
-        bandwidth_hz=data.bandwidth_hz,
-        n_sources=sources,
-        fit_elevation=fit_elevation,
-        elevation_deg=elevation,
-    )
+    try:
+        res = loc.locate(
+            data.readings,
+            freq_hz=data.freq_hz,
+            bandwidth_hz=data.bandwidth_hz,
+            n_sources=sources,
+            fit_elevation=fit_elevation,
+            elevation_deg=elevation,
+        )
+    except loc.LocateError as exc:  # the readings cannot answer: say which file
+        raise ValueError(f"{readings}: {exc}") from None
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
     if plot is not None:
         from snrgain import plots

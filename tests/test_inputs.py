@@ -1,0 +1,338 @@
+"""Inputs that cannot break it: each case a hostile or careless user tried ends in exit 0 or a one-line exit-2
+message naming the file, the item and the field; never a traceback, a hang, or exit 1.  Then a property-based
+fuzz test over scenarios and readings files."""
+
+import os
+import signal
+import stat
+import subprocess
+import sys
+import time
+import tomllib
+
+import pytest
+from click.testing import CliRunner
+from hypothesis import HealthCheck, given, seed, settings
+from hypothesis import strategies as st
+
+from snrgain.cli.main import cli
+from tests.conftest import MINIMAL, REPO, SCENARIOS
+from tests.test_pipeline import _toml
+
+DEMO = SCENARIOS / "alder-hollow.toml"
+
+
+def _check(tmp_path, text: str, *args, name="s.toml", command="check"):
+    p = tmp_path / name
+    p.write_bytes(text.encode("utf-8") if isinstance(text, str) else text)
+    t0 = time.perf_counter()
+    res = CliRunner().invoke(cli, [command, str(p), *args])
+    assert time.perf_counter() - t0 < 10.0
+    assert res.exit_code in (0, 2), (res.exit_code, res.output)
+    assert "Traceback" not in res.output
+    return res, p
+
+
+CAND = MINIMAL.replace('name = "iso"\nfamily = "isotropic"', "{candidate}")
+
+
+@pytest.mark.parametrize(
+    "text, field",
+    [
+        (MINIMAL.replace('height = "20 m"', 'height = "9**9**9 m"'), "reference.height"),
+        (
+            CAND.format(
+                candidate='name = "b"\nfamily = "bog"\nlength = "80 m"\nvelocity_factor = 0.7\nz0 = 300\n'
+                'attenuation = "fast dB/100m"'
+            ),
+            "attenuation",
+        ),
+        (
+            CAND.format(
+                candidate='name = "a"\nfamily = "array"\nsteering = "given"\nelements = [{ family = '
+                '"vertical", height = "3 m", phase = [90] }]'
+            ),
+            "elements 1",
+        ),
+        (MINIMAL + '\n[noise.atmospheric]\nmodel = "given"\nfa = nan\n', "noise.atmospheric.fa"),
+        (MINIMAL + '\n[[noise.local]]\nname = "n"\nbearing = 90\nfa = "inf"\n', 'noise.local 1 ("n").fa'),
+        (MINIMAL.replace("bearing = 45", "bearing = 45\nweight = inf"), "weight"),
+        (MINIMAL.replace("elevation = [10, 20]", "elevation = [0, 0]"), "elevation"),
+        (MINIMAL + "\n[noise.man_made]\nsector = { from = 0, to = 90, contrast = 1e300 }\n", "contrast"),
+        (
+            MINIMAL.replace(
+                "bearing = 45\nelevation = [10, 20]", 'latitude = 51\nlongitude = 0\nmin_elevation = "90 deg"'
+            ),
+            "min_elevation",
+        ),
+        (MINIMAL.replace('height = "20 m"', "height = " + "[" * 900 + "1" + "]" * 900), "nested"),
+        (MINIMAL.replace("months = [1]", "months = [" + "9" * 5000 + "]"), "not valid TOML"),
+        (CAND.format(candidate='name = "b"\nfamily = "beverage"\nlength = "1e-30 m"\nheight = "2 m"'), "length"),
+        (MINIMAL.replace('height = "20 m"', 'height = "2,5 m"'), "reference.height"),
+        (MINIMAL.replace('height = "20 m"', 'height = "8 10 ft"'), "reference.height"),
+        (MINIMAL.replace('height = "20 m"', 'height = "180 furlongs"'), "unknown unit"),
+        (MINIMAL.replace('frequency = "1.83 MHz"', 'frequency = "1.83 MHz 2"'), "band.frequency"),
+    ],
+)
+def test_each_reported_case_is_a_named_exit_2(tmp_path, text, field):
+    res, p = _check(tmp_path, text)
+    assert res.exit_code == 2 and field in res.stderr and str(p) in res.stderr
+
+
+def test_names_are_shown_literally(tmp_path):
+    text = CAND.format(
+        candidate='name = "loop [/]"\nfamily = "isotropic"\n\n[[candidate]]\n'
+        'name = "BOG [dim]south"\nfamily = "isotropic"'
+    )
+    p = tmp_path / "s.toml"
+    p.write_text(text)
+    res = CliRunner().invoke(cli, ["rank", str(p)])
+    assert res.exit_code == 0, res.output
+    out = " ".join(res.stdout.split())
+    assert "loop [/]" in out and "BOG [dim]south" in out
+    html = tmp_path / "r.html"
+    assert CliRunner().invoke(cli, ["report", str(p), "-o", str(html)]).exit_code == 0
+    assert "loop [/]" in html.read_text() and "<dim>" not in html.read_text()
+
+
+def test_bytes_that_are_not_utf8_name_the_line(tmp_path):
+    raw = MINIMAL.encode("utf-8").replace(b'name = "test site"', b'name = "t\xe9st site"')
+    res, p = _check(tmp_path, raw)
+    assert res.exit_code == 2 and "line 3" in res.stderr and "UTF-8" in res.stderr
+
+
+@pytest.mark.parametrize(
+    "command, text, field",
+    [
+        (
+            "calibrate",
+            '[wire]\nfamily = "vertical"\nheight = "10 m"\n[[resonance]]\nfrequency = "1 MHz"\n',
+            "wire.family",
+        ),
+        (
+            "calibrate",
+            '[wire]\nlength = "80 m"\n[[open_short]]\nfrequency = "1.83 MHz"\nopen = 5\nshort = [1, 2]\n',
+            "open_short 1.open",
+        ),
+        (
+            "locate",
+            'frequency = "1.83 MHz"\nbandwidth = "500 Hz"\nantenna = "loop"\n[[reading]]\nantenna = "loop"\n'
+            'level = "S7"\n',
+            "antenna",
+        ),
+        (
+            "locate",
+            'frequency = "1.83 MHz"\nbandwidth = "500 Hz"\nantenna = [1, 2]\n[[reading]]\nantenna = "loop"\n'
+            'level = "S7"\n',
+            "antenna",
+        ),
+        (
+            "locate",
+            'frequency = "1.83 MHz"\nbandwidth = "500 Hz"\n[antenna.v]\nfamily = "vertical"\nheight = "9 m"\n'
+            '[[reading]]\nantenna = "w"\nlevel = "S7"\n[[reading]]\nantenna = "v"\nlevel = "loud"\n',
+            "reading 1.antenna",
+        ),
+    ],
+)
+def test_readings_problems_are_named_exit_2(tmp_path, command, text, field):
+    res, p = _check(tmp_path, text, command=command)
+    assert res.exit_code == 2 and field in res.stderr and str(p) in res.stderr
+
+
+def test_locate_reports_every_problem_at_once(tmp_path):
+    text = (
+        'frequency = "1.83 MHz"\nbandwidth = "500 Hz"\n[antenna.v]\nfamily = "vertical"\nheight = "9 m"\n'
+        '[[reading]]\nantenna = "w"\nlevel = "S7"\n[[reading]]\nantenna = "v"\nlevel = "loud"\n'
+    )
+    res, _ = _check(tmp_path, text, command="locate")
+    assert "reading 2.level" in res.stderr and "2 problems" in res.stderr
+
+
+# -- writing --------------------------------------------------------------------------------------------------
+
+
+def test_write_targets_refuse_links_and_devices_and_keep_the_mode(tmp_path):
+    real = tmp_path / "real.json"
+    real.write_text("{}")
+    link = tmp_path / "link.json"
+    link.symlink_to(real)
+    res = CliRunner().invoke(cli, ["rank", str(DEMO), "--format", "json", "-o", str(link), "--overwrite"])
+    assert res.exit_code == 2 and "symbolic link" in res.stderr and real.read_text() == "{}"
+    res = CliRunner().invoke(cli, ["rank", str(DEMO), "--format", "json", "-o", "/dev/null", "--overwrite"])
+    assert res.exit_code == 2 and "not a regular file" in res.stderr
+    os.chmod(real, 0o600)
+    res = CliRunner().invoke(cli, ["rank", str(DEMO), "--format", "json", "-o", str(real), "--overwrite"])
+    assert res.exit_code == 0 and stat.S_IMODE(real.stat().st_mode) == 0o600 and real.read_text() != "{}"
+
+
+def test_a_folder_that_cannot_be_written_is_refused_before_any_work(tmp_path):
+    if os.geteuid() == 0:
+        pytest.skip("root writes everywhere")
+    ro = tmp_path / "ro"
+    ro.mkdir()
+    os.chmod(ro, 0o500)
+    res = CliRunner().invoke(cli, ["rank", str(DEMO), "--format", "json", "-o", str(ro / "x.json")])
+    assert res.exit_code == 2 and "cannot be written" in res.stderr
+
+
+def test_figures_interrupted_leave_no_temporary_files(tmp_path):
+    out = tmp_path / "figs"
+    out.mkdir()
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "snrgain.cli.main", "figures", str(DEMO), "--dir", str(out)],
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        cwd=REPO,
+    )
+    deadline = time.time() + 60
+    while time.time() < deadline and not any(out.iterdir()):
+        time.sleep(0.05)
+    proc.send_signal(signal.SIGTERM)
+    proc.wait(timeout=30)
+    leftovers = [p.name for p in out.iterdir() if p.name.startswith(".")]
+    assert leftovers == []
+
+
+# -- fuzz ----------------------------------------------------------------------------------------------------
+
+_BASE = tomllib.loads(DEMO.read_text())
+_JUNK = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.integers(min_value=-(10**6), max_value=10**6),
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.text(max_size=12),
+    st.sampled_from(
+        [
+            "",
+            "-1 m",
+            "1e999 m",
+            "5 furlongs",
+            "S9+99",
+            "nan",
+            "inf dB",
+            "1,5",
+            "[]",
+            "auto",
+            "9**9 m",
+            "0 m",
+            "-90 deg",
+            "1 MHz",
+            "3000 km",
+            "{}",
+            "moist loam",
+            "bog",
+            "vertical",
+        ]
+    ),
+    st.lists(st.integers(min_value=-5, max_value=30), max_size=3),
+    st.dictionaries(st.sampled_from(["a", "from", "to", "family"]), st.integers(), max_size=2),
+)
+
+
+def _paths(node, prefix=()):
+    if isinstance(node, dict):
+        for k, v in node.items():
+            yield (*prefix, k)
+            yield from _paths(v, (*prefix, k))
+    elif isinstance(node, list):
+        for i, v in enumerate(node):
+            yield (*prefix, i)
+            yield from _paths(v, (*prefix, i))
+
+
+_ALL_PATHS = list(_paths(_BASE))
+
+
+def _mutate(data, path, action, junk):
+    import copy
+
+    out = copy.deepcopy(data)
+    node = out
+    for part in path[:-1]:
+        node = node[part]
+    last = path[-1]
+    if action == "replace":
+        node[last] = junk
+    elif action == "delete":
+        if isinstance(node, dict):
+            node.pop(last, None)
+        else:
+            node.pop(last)
+    elif action == "unknown" and isinstance(node, dict):
+        node["colour"] = junk
+    return out
+
+
+def _toml_safe(value):
+    """Keep what TOML can hold (no None; dict keys as strings)."""
+    if value is None:
+        return ""
+    if isinstance(value, dict):
+        return {str(k): _toml_safe(v) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_toml_safe(v) for v in value]
+    return value
+
+
+@seed(20261202)
+@settings(max_examples=1000, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
+@given(
+    path=st.sampled_from(_ALL_PATHS),
+    action=st.sampled_from(["replace", "replace", "delete", "unknown"]),
+    junk=_JUNK,
+)
+def test_fuzz_scenarios(tmp_path_factory, path, action, junk):
+    data = _mutate(_BASE, path, action, _toml_safe(junk))
+    for c in data.get("candidate", []) if isinstance(data.get("candidate"), list) else []:
+        if isinstance(c, dict) and isinstance(c.get("file"), str):
+            c["file"] = str(SCENARIOS / c["file"])
+    try:
+        text = _toml(data)
+        tomllib.loads(text)
+    except Exception:
+        return  # the writer cannot express this mutation as TOML; nothing to test
+    tmp = tmp_path_factory.mktemp("fz")
+    res, p = _check(tmp, text)
+    if res.exit_code == 2:
+        assert str(p) in res.stderr and ":" in res.stderr.split(str(p), 1)[1]
+
+
+_READINGS = {
+    "calibrate": '[wire]\nfamily = "bog"\nlength = "250 ft"\n[[open_short]]\nfrequency = "1.83 MHz"\n'
+    'open = [95.0, -210.0]\nshort = [160.0, 240.0]\n[[resonance]]\nfrequency = "0.72 MHz"\n',
+    "locate": 'frequency = "1.83 MHz"\nbandwidth = "500 Hz"\n[antenna.loop]\nfamily = "small-loop"\nwidth = "1 m"\n'
+    'loop_height = "1 m"\nheight = "1.5 m"\n[antenna.vertical]\nfamily = "vertical"\nheight = "18 m"\n'
+    '[[reading]]\nantenna = "loop"\nbearing = 0\nlevel = "-118.8 dBm"\n[[reading]]\nantenna = "loop"\n'
+    'bearing = 60\nlevel = "-111.9 dBm"\n[[reading]]\nantenna = "vertical"\nlevel = "S7"\n',
+}
+
+
+@seed(20261202)
+@settings(max_examples=1000, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
+@given(
+    command=st.sampled_from(sorted(_READINGS)),
+    which=st.integers(min_value=0, max_value=40),
+    action=st.sampled_from(["replace", "replace", "delete", "unknown"]),
+    junk=_JUNK,
+)
+def test_fuzz_readings(tmp_path_factory, command, which, action, junk):
+    base = tomllib.loads(_READINGS[command])
+    paths = list(_paths(base))
+    data = _mutate(base, paths[which % len(paths)], action, _toml_safe(junk))
+    try:
+        text = _toml(data)
+        tomllib.loads(text)
+    except Exception:
+        return
+    tmp = tmp_path_factory.mktemp("fr")
+    res, p = _check(tmp, text, command=command)
+    if res.exit_code == 2:
+        assert str(p) in res.stderr
+
+
+def test_check_finds_what_rank_would(tmp_path):
+    # A level read on the reference from where the reference receives nothing (a vertical's zenith null).
+    text = MINIMAL + '\n[[noise.local]]\nname = "overhead"\nbearing = 0\nelevation = 90\nspread = 0\nlevel = "S7"\n'
+    res, p = _check(tmp_path, text)
+    assert res.exit_code == 2 and 'noise.local 1 ("overhead").level' in res.stderr
