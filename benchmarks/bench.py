@@ -335,6 +335,7 @@ def nec_ratios():
                 ground=g,
                 steering="given",
                 phases=[0.0, 90.0],
+                phase_sense="lag",
             ),
             dict(
                 wires=[(0, 0, 0, 0, 0, 5.0, 3), (quarter, 0, 0, quarter, 0, 5.0, 3)],

@@ -21,6 +21,12 @@ def notice_text(n: Notice) -> str:
             f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
             f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
         )
+    if n.code == "lobe-away-from-bearing":
+        return (
+            f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
+            f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
+            "element's signal by its phase) or its delays (positive: the signal comes later)"
+        )
     if n.code == "man-made-extrapolated":
         return (
             f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "

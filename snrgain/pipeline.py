@@ -144,6 +144,17 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
                     },
                 )
             )
+    for ant in sc.candidates:
+        lobe = main_lobe_deg(ant, sc.freq_hz)
+        if lobe is not None:
+            bearing = float(np.degrees(ant.params.bearing)) % 360.0
+            off = abs((lobe - bearing + 180.0) % 360.0 - 180.0)
+            if off > 90.0:
+                out.append(
+                    Notice(
+                        "lobe-away-from-bearing", ant.name, {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off}
+                    )
+                )
     lowest = p372.MAN_MADE_RANGE_HZ[0]
     if sc.freq_hz < lowest and sc.noise.man_made is not None:
         out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))
@@ -153,6 +164,20 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
 def target_masks(sc: Scenario) -> np.ndarray:
     """Which (month, hour) cells of the scenario's grid each target is listened at, shape (targets, months, hours)."""
     return np.array([t.mask(sc.times) for t in sc.target_times])
+
+
+LOBE_ELEVATION_DEG = 15.0
+"""Elevation at which an array's main lobe is compared with its bearing [deg] (a typical low-band arrival)."""
+
+
+def main_lobe_deg(antenna, freq_hz: float) -> float | None:
+    """Bearing [deg] of an array's azimuth maximum at LOBE_ELEVATION_DEG, for the families steered by phases or
+    delays (array, phased-verticals); None for the others."""
+    if antenna.family not in ("array", "phased-verticals"):
+        return None
+    az = np.arange(0.0, 360.0, 1.0)
+    g = antenna.gain_dbi(freq_hz, az, LOBE_ELEVATION_DEG)
+    return float(az[int(np.argmax(g))])
 
 
 def summary(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:

@@ -88,7 +88,8 @@ class Notice:
     """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
 
     Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
-    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz).
+    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg,
+    lobe_deg, off_deg: an array whose main lobe points more than 90 deg away from its bearing).
     """
 
     code: str

@@ -111,7 +111,7 @@ def test_uniform_linear_array_factor(n, d_wl, beta_deg):
     lam = C_M_PER_S / F
     d = d_wl * lam
     elements = [{"family": "isotropic", "position": [0, i * d], "phase": -i * beta_deg} for i in range(n)]
-    arr = from_spec({"family": "array", "steering": "given", "elements": elements})
+    arr = from_spec({"family": "array", "steering": "given", "phase_sense": "lag", "elements": elements})
     az = np.radians(np.linspace(0.5, 359.5, 90))
     el = np.radians(10.0)
     g = arr.gain_linear(F, az, np.full_like(az, el))
@@ -344,3 +344,45 @@ def test_phased_verticals_auto_steering_points_along_the_bearing(bearing_deg):
     peak = az[np.argmax(g)]
     assert abs((peak - bearing_deg + 180) % 360 - 180) <= 2.0
     assert ant.gain_dbi(1.83e6, bearing_deg, 10.0) - ant.gain_dbi(1.83e6, bearing_deg + 180, 10.0) > 15
+
+
+def test_phase_sense_is_explicit_and_a_reversed_array_is_flagged(tmp_path):
+    # Two short verticals a quarter wave apart along the bearing (north): the front element lagging 90 deg beams
+    # forward (textbook end-fire pair, Kraus, Antennas, Section 4-6); the same numbers read as leads beam back.
+    from click.testing import CliRunner
+
+    import snrgain
+    from snrgain.cli.main import cli
+    from tests.conftest import MINIMAL
+
+    q = C_M_PER_S / F / 4
+    base = {
+        "family": "phased-verticals",
+        "positions": [[0, 0], [0, q]],
+        "height": "5 m",
+        "bearing": 0,
+        "steering": "given",
+        "phases": [0, 90],
+        "ground": "moist loam",
+    }
+    with pytest.raises(SpecError, match="phase_sense"):
+        from_spec(base)
+    lag = from_spec({**base, "phase_sense": "lag"})
+    lead = from_spec({**base, "phase_sense": "lead"})
+    assert lag.gain_dbi(F, 0, 15) - lag.gain_dbi(F, 180, 15) > 15
+    assert lead.gain_dbi(F, 180, 15) - lead.gain_dbi(F, 0, 15) > 15
+    text = MINIMAL.replace(
+        'name = "iso"\nfamily = "isotropic"',
+        (
+            f'name = "pair"\nfamily = "phased-verticals"\npositions = [[0, 0], [0, {q}]]\nheight = "5 m"\n'
+            'bearing = 0\nsteering = "given"\nphases = [0, 90]\nphase_sense = "lead"'
+        ),
+    )
+    r = snrgain.evaluate(text)
+    assert any(n.code == "lobe-away-from-bearing" and n.antenna == "pair" for n in r.notices)
+    p = tmp_path / "s.toml"
+    p.write_text(text)
+    res = CliRunner().invoke(cli, ["rank", str(p)])
+    assert res.exit_code == 0 and "main lobe points to 180 deg" in res.stderr
+    fine = snrgain.evaluate(text.replace('phase_sense = "lead"', 'phase_sense = "lag"'))
+    assert not any(n.code == "lobe-away-from-bearing" for n in fine.notices)

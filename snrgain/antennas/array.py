@@ -46,11 +46,17 @@ from snrgain.units import parse_quantity
 WEIGHT_KEYS = ("delay", "delay_line", "phase", "amplitude")
 
 
+PhaseSense = Literal["lag", "lead"]
+"""How an element's ``phase`` is meant: "lag", its signal is delayed by that angle (as a longer cable delays it);
+"lead", advanced.  Arrays that give phases must say which: written the other way round, an array points back."""
+
+
 class ArrayParams(AntennaParams):
     family: Literal["array"]
     elements: list[dict[str, Any]] = Field(min_length=1, max_length=64)
     steering: Literal["auto", "given"] = "auto"
     bearing: Bearing = 0.0
+    phase_sense: PhaseSense | None = None
     ground: GroundField | None = None
     _si: bool = PrivateAttr(default=False)
 
@@ -71,6 +77,7 @@ class PhasedVerticalsParams(AntennaParams):
     bearing: Bearing = 0.0
     delays: list[quantity("time", ge=-1e-3, le=1e-3)] | None = None
     phases: list[float] | None = None
+    phase_sense: PhaseSense | None = None
     amplitudes: list[float] | None = None
     ground: GroundField | None = None
 
@@ -83,9 +90,17 @@ class PhasedVerticalsParams(AntennaParams):
                 raise ValueError(f"{name} has {len(v)} entries for {n} positions")
         if self.steering == "given" and self.delays is None and self.phases is None:
             raise ValueError("steering = 'given' needs delays or phases")
+        if self.phases is not None and self.phase_sense is None:
+            raise ValueError(PHASE_SENSE_NEEDED)
         if self.steering == "auto" and (self.delays is not None or self.phases is not None):
             raise ValueError("delays and phases are set by steering = 'auto'; use steering = 'given' to give them")
         return self
+
+
+PHASE_SENSE_NEEDED = (
+    "phases need phase_sense = 'lag' (each element's signal delayed by its phase, as a longer "
+    "cable delays it) or 'lead' (advanced); a delay is always positive when the signal comes later"
+)
 
 
 def _si_or_parse(value, dimension: str, si: bool) -> float:
@@ -146,7 +161,10 @@ class Array(Antenna):
                 el = build(spec, where, si=params._si)
                 if params.steering == "auto" and any(k in raw for k in ("delay", "delay_line", "phase")):
                     raise ValueError(f"{where}: delays and phases are set by steering = 'auto'")
-                self.weights.append(_weights_from(raw, where, si=params._si))
+                if "phase" in raw and params.phase_sense is None:
+                    raise ValueError(f"{where}: {PHASE_SENSE_NEEDED}")
+                delay, phase, amp = _weights_from(raw, where, si=params._si)
+                self.weights.append((delay, -phase if params.phase_sense == "lead" else phase, amp))
             except SpecError as exc:
                 problems.extend(exc.problems)
                 continue
@@ -252,6 +270,7 @@ class PhasedVerticals(Array):
                 "steering": params.steering,
                 "bearing": params.bearing,
                 "ground": params.ground,
+                "phase_sense": params.phase_sense,
             },
             context=SI_CONTEXT,
         )

@@ -24,6 +24,10 @@ def cli():
 
     Describe the site in a scenario file (start with 'snrgain new'), check it
     with 'snrgain check', and rank the candidates with 'snrgain rank'.
+
+    Arrays: a delay is positive when an element's signal comes later; phases
+    need phase_sense = 'lag' (delayed by the phase, as by a longer cable) or
+    'lead'.  The front element lagging beams forward.
     """
 
 
