@@ -16,13 +16,13 @@ import numpy as np
 from snrgain import wiredesign
 from snrgain.chain import cable_by_name
 from snrgain.ground import C_M_PER_S
+from snrgain.units import FT_PER_M
 
 E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
 """The E12 series of preferred numbers (IEC 60063)."""
 DEFAULT_PHASING_CABLE = "RG-6"
 """Cable assumed for phasing lines when the antenna's chain names none (75 ohm, foam: common for receiving
 arrays, common practice)."""
-FT_PER_M = 1 / 0.3048
 
 
 def nearest_standard_ohm(ohm: float, series=E12) -> float:

@@ -31,8 +31,7 @@ import numpy as np
 
 from noisemodels.p372 import T0_K
 from snrgain.ground import C_M_PER_S, MU0_H_PER_M
-
-FT_PER_M = 1 / 0.3048
+from snrgain.units import FT_PER_M
 
 
 @dataclass(frozen=True)

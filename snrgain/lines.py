@@ -60,11 +60,11 @@ import numpy as np
 from scipy.special import jve
 
 from snrgain.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M, Ground
+from snrgain.units import FT_PER_M
 
 COPPER_S_PER_M = 5.8e7
 """Conductivity of annealed copper [S/m]."""
 NP_TO_DB = 20.0 / np.log(10.0)
-FT_PER_M = 1.0 / 0.3048
 
 
 @dataclass(frozen=True)

@@ -9,9 +9,7 @@ import json
 import numpy as np
 
 from snrgain.results import Results
-from snrgain.units import s_units
-
-FT_PER_M = 1 / 0.3048
+from snrgain.units import FT_PER_M, s_units
 
 
 def to_json(results: Results) -> str:

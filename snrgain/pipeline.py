@@ -47,15 +47,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     sc = source if isinstance(source, Scenario) else load(source, nside=nside, p372_dir=p372_dir)
     grid = upper_hemisphere(sc.nside)
     gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
-    skies = noisemod.build_skies(
-        sc.noise,
-        sc.place,
-        months=sc.times.months,
-        utc_hours=sc.times.utc_hours,
-        grid=grid,
-        reference_gain=gains.caches[0].gain_fn,
-        reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
-    )
+    skies = build_sky(sc, grid, gains)
     temps = snr.sky_temperatures(gains, skies)
     spread = snr_spread(sc, grid, skies, gains, temps)
     antennas = antenna_results(sc, gains, temps, skies, spread)
@@ -69,14 +61,37 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     return summary(sc, skies, antennas, cuts)
 
 
+def build_sky(sc: Scenario, grid, gains: snr.Gains) -> noisemod.SkySeries:
+    """The scenario's noise sky on ``grid`` for its months and hours; a local source read on the reference is
+    placed with the reference's gains (``gains.caches[0]``) and chain."""
+    return noisemod.build_skies(
+        sc.noise,
+        sc.place,
+        months=sc.times.months,
+        utc_hours=sc.times.utc_hours,
+        grid=grid,
+        reference_gain=gains.caches[0].gain_fn,
+        reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
+    )
+
+
 def antenna_results(
-    sc: Scenario, gains: snr.Gains, temps: snr.Temperatures, skies: noisemod.SkySeries, spread: SnrSpread
+    sc: Scenario,
+    gains: snr.Gains,
+    temps: snr.Temperatures,
+    skies: noisemod.SkySeries,
+    spread: SnrSpread | None = None,
 ) -> list[AntennaResult]:
-    """Per-antenna figures ([reference, *candidates], unranked) from gains, sky temperatures and the spread."""
+    """Per-antenna figures ([reference, *candidates], unranked) from gains, sky temperatures and the spread.
+
+    Without ``spread`` the figures are nominal: the median and both deciles are the nominal SNR gain, and the
+    probability of beating the reference is NaN (not computed).
+    """
     b = sc.bandwidth_hz
     t_chain = np.array([c.temperature_k for c in sc.chains])
     masks = target_masks(sc)
     snr_gain = np.where(masks, snr.snr_gain_over_reference(gains.toward, temps.total + t_chain[:, None, None]), np.nan)
+    nominal = np.array([[np.mean(gt[m]) for gt, m in zip(g, masks)] for g in snr_gain])  # (antennas, targets)
     deciles = [
         snr.snr_gain_with_scaled_kind(gains.toward, temps, t_chain, skies, kind="atmospheric", deviation=d)
         for d in ("upper", "lower")
@@ -112,11 +127,11 @@ def antenna_results(
                 receiver_snr_loss_db=budget.receiver_snr_loss_db,
                 preamp_gain_needed_db=budget.preamp_gain_needed_db,
                 preamp_position=budget.preamp_position,
-                snr_gain_nominal_db=np.array([np.mean(gt[m]) for gt, m in zip(g, masks)]),
-                snr_gain_median_db=spread.median_db[k],
-                snr_gain_p10_db=spread.p10_db[k],
-                snr_gain_p90_db=spread.p90_db[k],
-                probability_beats=spread.probability[k],
+                snr_gain_nominal_db=nominal[k],
+                snr_gain_median_db=nominal[k] if spread is None else spread.median_db[k],
+                snr_gain_p10_db=nominal[k] if spread is None else spread.p10_db[k],
+                snr_gain_p90_db=nominal[k] if spread is None else spread.p90_db[k],
+                probability_beats=np.full(len(masks), np.nan) if spread is None else spread.probability[k],
                 receiver_limited=bool(np.any(budget.margin_db < sc.receiver.margin_target_db)),
                 chain=chainmod.describe(ch, bandwidth_hz=b),
                 snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),

@@ -17,19 +17,12 @@ import numpy as np
 def read_toml(path: str | Path, *, allowed: set[str] | None = None) -> dict:
     """A readings file as a dict; ReadingsError naming the file (cannot read, not UTF-8, not TOML, too deep)."""
     from snrgain.errors import ReadingsError, ScenarioError
-    from snrgain.scenario import MAX_FILE_BYTES, decode_text, parse_toml
+    from snrgain.scenario import parse_toml, read_text_file
 
     path = Path(path)
     try:
-        raw = path.read_bytes()
-        if len(raw) > MAX_FILE_BYTES:
-            raise ReadingsError(str(path), [("", f"the file is {len(raw)} bytes; at most {MAX_FILE_BYTES} are read")])
-        data = parse_toml(decode_text(raw, str(path)), str(path))
-    except OSError as exc:
-        raise ReadingsError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
+        data = parse_toml(read_text_file(path), str(path))
     except ScenarioError as exc:
-        if isinstance(exc, ReadingsError):
-            raise
         raise ReadingsError(exc.source, exc.problems) from None
     if allowed is not None:
         unknown = set(data) - allowed

@@ -724,16 +724,7 @@ def _read(source) -> tuple[str, str, Path | None]:
     )
     if isinstance(source, Path) or looks_like_path:
         path = Path(source)
-        try:
-            raw = path.read_bytes()
-        except OSError as exc:
-            raise ScenarioError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
-        if len(raw) > MAX_FILE_BYTES:
-            raise ScenarioError(
-                str(path),
-                [("", f"the file is {len(raw)} bytes; a scenario is at most {MAX_FILE_BYTES // 1_000_000} MB")],
-            )
-        return decode_text(raw, str(path)), str(path), path.resolve().parent
+        return read_text_file(path), str(path), path.resolve().parent
     if isinstance(source, str):
         return source, "<text>", None
     raise ScenarioError("<input>", [("", f"a scenario is a path, TOML text or a dict; got {type(source).__name__}")])
@@ -741,6 +732,19 @@ def _read(source) -> tuple[str, str, Path | None]:
 
 MAX_FILE_BYTES = 5_000_000
 """The largest scenario or readings file read [bytes]."""
+
+
+def read_text_file(path: Path) -> str:
+    """The UTF-8 text of a scenario or readings file; ScenarioError if unreadable, too large or not UTF-8."""
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise ScenarioError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
+    if len(raw) > MAX_FILE_BYTES:
+        raise ScenarioError(
+            str(path), [("", f"the file is {len(raw)} bytes; at most {MAX_FILE_BYTES // 1_000_000} MB is read")]
+        )
+    return decode_text(raw, str(path))
 
 
 def decode_text(raw: bytes, label: str) -> str:

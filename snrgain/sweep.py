@@ -254,22 +254,14 @@ class _Shared:
 
     def __init__(self, study: Study):
         from noisemodels.sphere import upper_hemisphere
-        from snrgain import noise as noisemod
         from snrgain import snr
+        from snrgain.pipeline import build_sky
 
         self.study = study
         self.sc = sc = study.load(study.data)
         self.grid = upper_hemisphere(sc.nside)
         gains = snr.antenna_gains([sc.reference], sc.freq_hz, self.grid, sc.targets)
-        self.skies = noisemod.build_skies(
-            sc.noise,
-            sc.place,
-            months=sc.times.months,
-            utc_hours=sc.times.utc_hours,
-            grid=self.grid,
-            reference_gain=gains.caches[0].gain_fn,
-            reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
-        )
+        self.skies = build_sky(sc, self.grid, gains)
         self.ref_gains = gains
         self.ref_temps = snr.sky_temperatures(gains, self.skies)
         self.raw_ground = study.data.get("site", {}).get("ground", "moist loam")
@@ -279,7 +271,6 @@ class _Shared:
         """The AntennaResult of one candidate of a design, against the shared reference and sky."""
         from snrgain import pipeline, snr
         from snrgain.scenario import antenna_from_table
-        from snrgain.spread import SnrSpread
 
         sc = self.sc
         k = self.names.index(name)
@@ -299,11 +290,7 @@ class _Shared:
         by = np.concatenate([self.ref_temps.by_component, t.by_component], axis=1)
         temps = snr.Temperatures(by, by.sum(axis=0))
         sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[1 + k]))
-        nt = len(sc.targets)
-        nominal = SnrSpread(*(np.zeros((2, nt)),) * 4, beat_by_db=sc.uncertainty.beat_by_db)
-        res = pipeline.antenna_results(sub, gains, temps, self.skies, nominal)[1]
-        res.snr_gain_median_db = res.snr_gain_p10_db = res.snr_gain_p90_db = res.snr_gain_nominal_db
-        return res
+        return pipeline.antenna_results(sub, gains, temps, self.skies)[1]  # nominal: no spread
 
 
 _SHARED: dict[int, _Shared] = {}

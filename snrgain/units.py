@@ -41,6 +41,9 @@ DIMENSIONS: dict[str, tuple[str, str, bool]] = {
     "time": ("second", "'120 ns' or '0.12 us'", False),
 }
 
+M_PER_FT = 0.3048
+"""One foot [m] (exact, international foot)."""
+FT_PER_M = 1.0 / M_PER_FT
 S9_DBM = -73.0
 """S9 below 30 MHz [dBm], IARU Region 1 Technical Recommendation R.1."""
 DB_PER_S_UNIT = 6.0
@@ -50,7 +53,7 @@ _NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?"
 _WORD = r"[A-Za-z\u00b0\u00b5\u03bc\u03a9]+"
 _QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*({_WORD}(?:\s*/\s*{_WORD})?)?\s*$")
 _ATTENUATION = re.compile(rf"^\s*({_NUMBER})\s*(?:dB\s*/\s*(100\s*m|100\s*ft|m|ft))?\s*$", re.IGNORECASE)
-_ATTENUATION_SCALE = {"100m": 1.0, "100ft": 1.0 / 0.3048, "m": 100.0, "ft": 100.0 / 0.3048}
+_ATTENUATION_SCALE = {"100m": 1.0, "100ft": FT_PER_M, "m": 100.0, "ft": 100.0 * FT_PER_M}
 ATTENUATION_RANGE_DB_PER_100M = (0.0, 200.0)
 
 
@@ -58,7 +61,7 @@ class QuantityError(ValueError):
     """A value that is not a quantity of the expected kind."""
 
 
-_FT = 0.3048
+_FT = M_PER_FT
 UNITS: dict[str, dict[str, float]] = {
     "length": {
         "m": 1.0,

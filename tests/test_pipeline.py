@@ -26,7 +26,7 @@ from snrgain.antennas.base import variant
 from snrgain.cli.main import cli
 from snrgain.files import OutputExistsError, write_atomic
 from snrgain.messages import notice_text
-from snrgain.pipeline import antenna_results, notices
+from snrgain.pipeline import antenna_results, build_sky, notices
 from snrgain.scenario import load
 from snrgain.spread import snr_spread
 from snrgain.units import QuantityError, parse_attenuation_db_per_100m, parse_quantity
@@ -151,14 +151,7 @@ def _steps(text):
     sc = load(text)
     grid = upper_hemisphere(sc.nside)
     gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
-    skies = noisemod.build_skies(
-        sc.noise,
-        sc.place,
-        months=sc.times.months,
-        utc_hours=sc.times.utc_hours,
-        grid=grid,
-        reference_gain=gains.caches[0].gain_fn,
-    )
+    skies = build_sky(sc, grid, gains)
     return sc, gains, skies, snr.sky_temperatures(gains, skies)
 
 

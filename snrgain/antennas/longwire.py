@@ -362,11 +362,7 @@ class LongWire(TransformerFeed, Antenna):
         )
 
     def check_frequency(self, freq_hz):
-        lo, hi = FREQ_RANGE_HZ
-        if not lo <= freq_hz <= hi:
-            raise ValueError(
-                f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's {lo / 1e6:g}-{hi / 1e6:g} MHz"
-            )
+        _check_band(freq_hz)
         h_wl = self.wire_height_m() * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
             raise ValueError(
@@ -441,6 +437,15 @@ class LongWire(TransformerFeed, Antenna):
         }
 
 
+def _check_band(freq_hz):
+    """ValueError if ``freq_hz`` lies outside the band the long-wire line model covers."""
+    lo, hi = FREQ_RANGE_HZ
+    if not lo <= freq_hz <= hi:
+        raise ValueError(
+            f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's {lo / 1e6:g}-{hi / 1e6:g} MHz"
+        )
+
+
 @register("beverage", BeverageParams, "terminated long wire at a height, down-leads to ground rods at both ends")
 class Beverage(LongWire):
     pass
@@ -480,11 +485,7 @@ class Bog(LongWire):
         )
 
     def check_frequency(self, freq_hz):
-        lo, hi = FREQ_RANGE_HZ
-        if not lo <= freq_hz <= hi:
-            raise ValueError(
-                f"frequency {freq_hz / 1e6:g} MHz lies outside the long-wire model's {lo / 1e6:g}-{hi / 1e6:g} MHz"
-            )
+        _check_band(freq_hz)
 
     def describe(self):
         return {**super().describe(), "depth_m": self.params.depth}

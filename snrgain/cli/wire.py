@@ -89,7 +89,8 @@ def wire(
         emit_json(out)
         return
     ant, ln = out["antenna"], out["line"]
-    ft = 1 / 0.3048
+    from snrgain.units import FT_PER_M as ft
+
     length_m, rule_m, best_m = ant["length_m"], out["length_rule_m"], out["best_length_m"]
     z0 = complex(*ln["z0_ohm"])
     lines_out = [
