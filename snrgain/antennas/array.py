@@ -4,30 +4,42 @@ The complex responses of the elements (each referred to its own feed point,
 snrgain.antennas.base.Antenna.complex_response) are combined before powers
 are taken:
 
-    E(dir) = sum_i w_i e_i(dir) exp(+j k cos(Delta) (east_i sin(phi) + north_i cos(phi))),
+    E(dir) = sum_i w_i r_i(dir),  r_i = e_i(dir) exp(+j k cos(Delta) (east_i sin(phi) + north_i cos(phi))),
     w_i = a_i exp(-j (omega tau_i + phase_i)),
 
 the position phase being that of a plane wave reaching points nearer its
 source first (DESIGN.md).  The combiner is taken as lossless and matched,
-so the realized gain is |E|^2 / sum |w_i|^2: one element with unit weight
-gives back its own pattern, and N elements added in phase toward a direction
-give N times an element's gain there.
+so the realized gain is |E|^2 / (w^H Q w) with Q the identity: one element
+with unit weight gives back its own pattern, and N elements added in phase
+toward a direction give N times an element's gain there.
 
-``steering = "auto"`` delays each element by its position's projection on
-the bearing over c, so that a wave from the bearing at the horizon adds in
-phase (end-fire toward the bearing; two elements a quarter wave apart make
-the textbook cardioid).  Otherwise each element gives ``delay`` (a time), a
-``delay_line`` (length and velocity factor) or ``phase``, and ``amplitude``.
+Steering.  ``steering = "given"``: each element gives ``delay`` (a time),
+``delay_line`` (length and velocity factor) or ``phase`` (with
+``phase_sense``), and ``amplitude``.  ``steering = "auto"`` sets the weights
+(:mod:`snrgain.antennas.steering`) by ``auto_for``:
 
-Mutual coupling is neglected: the elements' currents are set by their own
-loads.  This holds for short receiving elements (verticals up to about 0.1
-wavelength, loaded by high-impedance amplifiers or transformers, the usual
-receive-array practice) spaced a tenth of a wavelength or more; it does not
-hold for resonant elements close together.  Elements must be of one family
-(their phase conventions then agree).
+- ``"rdf"`` (default): the phases of highest RDF toward ``bearing`` at
+  ``auto_elevation`` (20 deg unless given);
+- ``"front_to_back"``: the phases of deepest rear at that elevation;
+- ``"snr"``: the weights of highest SNR under the scenario's own noise sky
+  (time-averaged over its months and hours, receiver noise included) toward
+  the target nearest the bearing; outside a scenario, as ``"rdf"``;
+- ``"end-fire"``: each element delayed by its position's projection on the
+  bearing over c (the travel-time delay; two elements a quarter wave apart
+  make the textbook cardioid, and closer spacings do worse than optimised
+  phases).
 
-``phased-verticals`` is a shorthand: identical short verticals at given
-positions, steered automatically or by given delays.
+Auto steering moves phases only (amplitudes as given, else equal) unless
+``auto_amplitudes = true``.  The chosen weights are reported as phases, as
+delays in ns and as lengths of the phasing coax (snrgain.build).
+
+Mutual coupling is neglected here: the elements' currents are set by their
+own loads.  This holds for short receiving elements (verticals up to about
+0.1 wavelength, loaded by high-impedance amplifiers or transformers, the
+usual receive-array practice) spaced a tenth of a wavelength or more.
+``phased-verticals`` with ``feed = "current"`` or ``"lines"`` models it
+(:mod:`snrgain.antennas.coupling`), for elements up to 0.3 wavelength.
+Elements must be of one family (their phase conventions then agree).
 """
 
 from __future__ import annotations
@@ -39,7 +51,7 @@ from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
 
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, item_label, register
 from snrgain.antennas.geometry import direction_geometry
-from snrgain.fields import SI_CONTEXT, Bearing, GroundField, PlanPoint, quantity
+from snrgain.fields import SI_CONTEXT, Bearing, Elevation, GroundField, PlanPoint, quantity
 from snrgain.ground import C_M_PER_S
 from snrgain.units import parse_quantity
 
@@ -51,13 +63,32 @@ PhaseSense = Literal["lag", "lead"]
 "lead", advanced.  Arrays that give phases must say which: written the other way round, an array points back."""
 
 
-class ArrayParams(AntennaParams):
-    family: Literal["array"]
-    elements: list[dict[str, Any]] = Field(min_length=1, max_length=64)
+AutoFor = Literal["rdf", "front_to_back", "snr", "end-fire"]
+"""What ``steering = "auto"`` maximises (see the module docstring)."""
+
+AUTO_ELEVATION_RAD = float(np.radians(20.0))
+"""Elevation at which auto steering aims (a typical low-band arrival, common practice) [rad]."""
+
+
+class SteeringParams(AntennaParams):
     steering: Literal["auto", "given"] = "auto"
     bearing: Bearing = 0.0
+    auto_for: AutoFor = "rdf"
+    auto_elevation: Elevation = AUTO_ELEVATION_RAD
+    auto_amplitudes: bool = False
     phase_sense: PhaseSense | None = None
     ground: GroundField | None = None
+
+    @model_validator(mode="after")
+    def _auto_keys(self):
+        if self.auto_amplitudes and (self.steering != "auto" or self.auto_for not in ("rdf", "snr")):
+            raise ValueError("auto_amplitudes needs steering = 'auto' with auto_for = 'rdf' or 'snr'")
+        return self
+
+
+class ArrayParams(SteeringParams):
+    family: Literal["array"]
+    elements: list[dict[str, Any]] = Field(min_length=1, max_length=64)
     _si: bool = PrivateAttr(default=False)
 
     @model_validator(mode="after")
@@ -67,19 +98,25 @@ class ArrayParams(AntennaParams):
         return self
 
 
-class PhasedVerticalsParams(AntennaParams):
+Feed = Literal["buffered", "current", "lines"]
+"""How phased verticals are fed: "buffered", each element into a high-impedance amplifier (coupling neglected,
+short elements); "current", ideal current forcing (the currents are the weights); "lines", each element through a
+matched line of ``line_impedance`` from a matched combiner (the currents follow from the coupled impedances)."""
+
+
+class PhasedVerticalsParams(SteeringParams):
     family: Literal["phased-verticals"]
     positions: list[PlanPoint] = Field(min_length=1, max_length=64)
     height: quantity("length", ge=0.05, le=60.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     top_loading: quantity("length", ge=0.0, le=60.0) = 0.0
-    steering: Literal["auto", "given"] = "auto"
-    bearing: Bearing = 0.0
     delays: list[quantity("time", ge=-1e-3, le=1e-3)] | None = None
     phases: list[float] | None = None
-    phase_sense: PhaseSense | None = None
     amplitudes: list[float] | None = None
-    ground: GroundField | None = None
+    feed: Feed = "buffered"
+    line_impedance: quantity("resistance", ge=1.0, le=1000.0) = 75.0
+    diameter: quantity("length", ge=1e-4, le=0.5) = 0.025
+    """Element diameter [m], for the self reactance of coupled elements (25 mm tubing, common practice)."""
 
     @model_validator(mode="after")
     def _lists(self):
@@ -94,6 +131,11 @@ class PhasedVerticalsParams(AntennaParams):
             raise ValueError(PHASE_SENSE_NEEDED)
         if self.steering == "auto" and (self.delays is not None or self.phases is not None):
             raise ValueError("delays and phases are set by steering = 'auto'; use steering = 'given' to give them")
+        if self.feed != "buffered" and self.top_loading > 0:
+            raise ValueError(
+                "top_loading: coupled feeds (feed = 'current' or 'lines') take elements without top loading "
+                "(the self reactance would depend on the hat's own shape)"
+            )
         return self
 
 
@@ -138,7 +180,7 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
     return delay, phase, amp
 
 
-@register("array", ArrayParams, "elements of one family at positions, combined with delays (end-fire or given)")
+@register("array", ArrayParams, "elements of one family at positions, combined with delays (optimised or given)")
 class Array(Antenna):
     def __init__(self, params: ArrayParams):
         super().__init__(params)
@@ -180,69 +222,190 @@ class Array(Antenna):
             self.positions.append(el.params.position or (0.0, 0.0))
         if len(families) > 1:
             problems.append(("elements", f"elements must be of one family; found {sorted(families)}"))
+        if not problems:
+            problems += _placement_problems(self.positions, [a for _, _, a in self.weights])
         if problems:
             raise SpecError(problems)
         self.positions = np.array(self.positions, dtype=float)
+        self._steered: dict[float, np.ndarray] = {}
+        self._steered_note: dict[float, str] = {}
+        self._last_freq: float | None = None
         if params.steering == "auto":
             u = np.array([np.sin(params.bearing), np.cos(params.bearing)])
             proj = self.positions @ u
             tau = (proj - proj.min()) / C_M_PER_S
             self.weights = [(t, 0.0, a) for t, (_, _, a) in zip(tau, self.weights)]
 
+    # -- weights ------------------------------------------------------------------------------------------
+
+    @property
+    def optimised(self) -> bool:
+        """True where auto steering optimises the weights (every ``auto_for`` but "end-fire")."""
+        return self.params.steering == "auto" and self.params.auto_for != "end-fire"
+
+    def static_weights(self, freq_hz: float) -> np.ndarray:
+        """The weights as given (or the end-fire delays), w_i = a_i exp(-j (omega tau_i + phase_i))."""
+        omega = 2 * np.pi * freq_hz
+        return np.array([a * np.exp(-1j * (omega * t + p)) for t, p, a in self.weights])
+
+    def weights_at(self, freq_hz: float) -> np.ndarray:
+        """The complex weights used at ``freq_hz``: optimised once per frequency for auto steering."""
+        self._last_freq = float(freq_hz)
+        if not self.optimised:
+            return self.static_weights(freq_hz)
+        if freq_hz not in self._steered:
+            self.steer(freq_hz)
+        return self._steered[freq_hz]
+
+    def set_weights(self, freq_hz: float, w: np.ndarray, note: str) -> None:
+        """Hold ``w`` as the weights at ``freq_hz`` (largest magnitude 1, the first element's phase 0)."""
+        w = np.asarray(w, dtype=complex)
+        w = w / np.max(np.abs(w)) * np.exp(-1j * np.angle(w[0]))
+        self._steered[float(freq_hz)] = w
+        self._steered_note[float(freq_hz)] = note
+
+    def keep_steering_from(self, other: Array) -> None:
+        """Use ``other``'s steered weights (a variant of the same array keeps the setting once made)."""
+        self._steered.update(other._steered)
+        self._steered_note.update(other._steered_note)
+
+    def steer(self, freq_hz: float, *, signal=None, noise=None, note: str | None = None) -> None:
+        """Optimise the weights at ``freq_hz``: by default for ``auto_for`` under a uniform sky; with ``signal``
+        and ``noise`` (Hermitian forms in u = conj(w), see :mod:`snrgain.antennas.steering`) for that ratio."""
+        from noisemodels.sphere import upper_hemisphere
+        from snrgain.antennas import steering as st
+
+        p = self.params
+        amps = np.array([a for _, _, a in self.weights], dtype=float)
+        end_fire = np.conj(self.static_weights(freq_hz))
+        front = self.element_responses(freq_hz, np.array([p.bearing]), np.array([p.auto_elevation]))
+        if p.auto_for == "front_to_back" and signal is None:
+            back = self.element_responses(freq_hz, np.array([p.bearing + np.pi]), np.array([p.auto_elevation]))
+            s_f, s_b = st.quadratic_form(*front), st.quadratic_form(*back)
+
+            def objective(u):
+                f = np.real(u.conj() @ s_f @ u)
+                return f / (np.real(u.conj() @ s_b @ u) + st.FB_FLOOR * f)
+
+            u = st.best_phases(objective, amps, [end_fire])
+            self.set_weights(freq_hz, np.conj(u), note or "front-to-back at the auto elevation")
+            return
+        if signal is None:
+            grid = upper_hemisphere(16)
+            rv, rh = self.element_responses(freq_hz, grid.azimuth_rad, grid.elevation_rad)
+            noise = st.quadratic_form(rv, rh, grid.solid_angle_sr / (4 * np.pi))
+            signal = st.quadratic_form(*front)
+            note = note or "RDF toward the bearing at the auto elevation (uniform sky)"
+        free = st.free_optimum(signal, noise)
+        if p.auto_amplitudes:
+            u = free
+        else:
+            u = st.best_phases(lambda v: st.ratio(v, signal, noise), amps, [end_fire, free])
+        self.set_weights(freq_hz, np.conj(u), note)
+
+    # -- responses ----------------------------------------------------------------------------------------
+
     def check_frequency(self, freq_hz):
         for el in self.elements:
             el.check_frequency(freq_hz)
 
-    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+    def element_responses(self, freq_hz, azimuth_rad, elevation_rad):
+        """Each element's response per unit weight with its position phase: (r_v, r_h), shape (N, *directions)."""
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        omega = 2 * np.pi * freq_hz
         geo = direction_geometry(az, el)
         east, north = geo.ce * geo.sin_az, geo.ce * geo.cos_az  # horizontal direction, scaled by cos(elevation)
-        ev = np.zeros(az.shape, dtype=complex)
-        eh = np.zeros(az.shape, dtype=complex)
-        norm = 0.0
+        rv = np.empty((len(self.elements), *az.shape), dtype=complex)
+        rh = np.empty_like(rv)
         cache: dict[str, tuple] = {}
-        for elem, pos, (tau, phase, amp) in zip(self.elements, self.positions, self.weights):
+        for i, (elem, pos) in enumerate(zip(self.elements, self.positions)):
             key = elem.params.model_dump_json(exclude={"position", "name"})
             if key not in cache:  # identical elements at other positions: one response serves
                 cache[key] = elem.complex_response(freq_hz, az, el)
-            rv, rh = cache[key]
-            w = amp * np.exp(-1j * (omega * tau + phase))
+            ev, eh = cache[key]
             phase = np.exp(1j * k * (east * pos[0] + north * pos[1]))
-            ev += w * rv * phase
-            eh += w * rh * phase
-            norm += amp**2
-        if norm == 0:
-            raise ValueError("amplitudes: every element's amplitude is zero")
+            rv[i] = ev * phase
+            rh[i] = eh * phase
+        return rv, rh
+
+    def norm_matrix(self, freq_hz) -> np.ndarray:
+        """Q of the normalisation w^H Q w (the identity: a lossless, matched combiner)."""
+        return np.eye(len(self.elements))
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        w = self.weights_at(freq_hz)
+        rv, rh = self.element_responses(freq_hz, azimuth_rad, elevation_rad)
+        norm = float(np.real(w.conj() @ self.norm_matrix(freq_hz) @ w))
         scale = 1.0 / np.sqrt(norm)
-        return ev * scale, eh * scale
+        return np.tensordot(w, rv, axes=1) * scale, np.tensordot(w, rh, axes=1) * scale
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
         return np.abs(ev) ** 2, np.abs(eh) ** 2
 
     def describe(self):
+        p = self.params
         out = {
             **super().describe(),
             "elements": len(self.elements),
             "element_family": self.elements[0].family,
-            "bearing_deg": float(np.degrees(self.params.bearing)),
-            "delays_ns": [float(t * 1e9) for t, _, _ in self.weights],
-            "phases_deg": [float(np.degrees(p)) for _, p, _ in self.weights],
-            "amplitudes": [float(a) for _, _, a in self.weights],
+            "bearing_deg": float(np.degrees(p.bearing)),
+            "steering": p.steering if p.steering == "given" else f"auto ({p.auto_for})",
             "positions_m": [[float(x), float(y)] for x, y in self.positions],
         }
+        f = self._last_freq
+        if f is None and not self.optimised:
+            f = 1.0e6  # given or end-fire weights: delays and amplitudes do not depend on it
+            out["delays_ns"] = [float(t * 1e9) for t, _, _ in self.weights]
+            out["phases_deg"] = [float(np.degrees(ph)) for _, ph, _ in self.weights]
+            out["amplitudes"] = [float(a) for _, _, a in self.weights]
+            return out
+        if f is None:
+            return out  # optimised weights not yet chosen: no frequency seen
+        w = self.weights_at(f)
+        lag = np.degrees(np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi))
+        out.update(
+            steered_at_hz=f,
+            delays_ns=[float(t * 1e9) for t in self.effective_delays_s(f)],
+            phases_deg=[float(x) for x in np.where(lag > 359.9995, 0.0, lag)],
+            phase_sense="lag",
+            amplitudes=[float(a) for a in np.abs(w) / np.max(np.abs(w))],
+        )
+        if f in self._steered_note:
+            out["steered_for"] = self._steered_note[f]
         return out
 
     def effective_delays_s(self, freq_hz: float) -> np.ndarray:
-        """Each element's delay with its phase turned into time at ``freq_hz`` (tau + phase / omega), the earliest
-        element at 0 [s]: what the phasing lines must delay."""
-        d = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in self.weights])
+        """Each element's delay with its phase turned into time at ``freq_hz``, the earliest element at 0 [s]: what
+        the phasing lines must delay (as given: tau + phase / omega; optimised: the phase lag over omega)."""
+        if self.optimised:
+            w = self.weights_at(freq_hz)
+            d = np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi) / (2 * np.pi * freq_hz)
+        else:
+            d = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in self.weights])
         return d - d.min()
 
 
-@register("phased-verticals", PhasedVerticalsParams, "short verticals at positions, phased (end-fire or given delays)")
+def _placement_problems(positions, amplitudes) -> list[tuple[str, str]]:
+    """Coincident elements (closer than 1 cm) and all-zero amplitudes."""
+    out = []
+    p = np.asarray(positions, dtype=float).reshape(-1, 2)
+    for i in range(len(p)):
+        for j in range(i + 1, len(p)):
+            if np.hypot(*(p[i] - p[j])) < 0.01:
+                out.append(
+                    (
+                        "elements",
+                        f"elements {i + 1} and {j + 1} stand at the same point ({p[i][0]:g}, {p[i][1]:g}) m; "
+                        "give each element its own position",
+                    )
+                )
+    if amplitudes and not any(a > 0 for a in amplitudes):
+        out.append(("amplitudes", "every element's amplitude is zero; at least one must be above 0"))
+    return out
+
+
+@register("phased-verticals", PhasedVerticalsParams, "verticals at positions, phased (optimised, end-fire or given)")
 class PhasedVerticals(Array):
     def __init__(self, params: PhasedVerticalsParams):
         elements = []
@@ -261,16 +424,14 @@ class PhasedVerticals(Array):
             if params.amplitudes is not None:
                 e["amplitude"] = params.amplitudes[i]
             elements.append(e)
+        keys = ("steering", "bearing", "ground", "phase_sense", "auto_for", "auto_elevation", "auto_amplitudes")
         ap = ArrayParams.model_validate(
             {
                 "family": "array",
                 "name": params.name,
                 "position": params.position,
                 "elements": elements,
-                "steering": params.steering,
-                "bearing": params.bearing,
-                "ground": params.ground,
-                "phase_sense": params.phase_sense,
+                **{k: getattr(params, k) for k in keys},
             },
             context=SI_CONTEXT,
         )
@@ -278,16 +439,91 @@ class PhasedVerticals(Array):
         self.params = params
 
     MAX_ELEMENT_WAVELENGTHS = 0.1
+    """Buffered elements (coupling neglected) are taken up to this height, with their loading [wavelengths]."""
+    MAX_COUPLED_WAVELENGTHS = 0.3
+    """Coupled feeds (the induced-EMF model) are taken up to this height [wavelengths]."""
+
+    @property
+    def coupled(self) -> bool:
+        return self.params.feed != "buffered"
 
     def check_frequency(self, freq_hz):
         super().check_frequency(freq_hz)
         h_wl = (self.params.height + self.params.top_loading) * freq_hz / C_M_PER_S
-        if h_wl > self.MAX_ELEMENT_WAVELENGTHS:
+        limit = self.MAX_COUPLED_WAVELENGTHS if self.coupled else self.MAX_ELEMENT_WAVELENGTHS
+        if h_wl > limit:
+            if self.coupled:
+                raise ValueError(
+                    f"height: elements of {h_wl:.2f} wavelength are beyond the coupled model's "
+                    f"{limit} wavelength (sinusoidal currents)"
+                )
             raise ValueError(
-                f"height: elements of {h_wl:.2f} wavelength couple too strongly for a model without "
-                f"mutual coupling; phased verticals are taken up to {self.MAX_ELEMENT_WAVELENGTHS} "
-                "wavelength (with top loading)"
+                f"height: elements of {h_wl:.2f} wavelength couple too strongly for buffered elements (coupling "
+                f"neglected, up to {limit} wavelength with top loading); set feed = 'lines' or 'current' to "
+                f"model the coupling (up to {self.MAX_COUPLED_WAVELENGTHS} wavelength)"
             )
 
+    # -- coupling -----------------------------------------------------------------------------------------
+
+    def impedances(self, freq_hz: float) -> np.ndarray:
+        """Impedance matrix [ohm] at the element bases: mutual terms by the induced-EMF method, the ground loss
+        on the diagonal (snrgain.antennas.coupling)."""
+        from snrgain.antennas.coupling import impedance_matrix
+
+        p = self.params
+        z = impedance_matrix(freq_hz, self.positions, p.height, p.top_loading, p.diameter / 2)
+        return z + np.eye(len(z)) * p.ground_loss
+
+    def _element_input_ohm(self, freq_hz: float) -> float:
+        """Radiation resistance plus ground loss of one element alone: its responses are per unit input power."""
+        return self.elements[0].radiation_resistance_ohm(freq_hz) + self.params.ground_loss
+
+    def _line_matrix(self, freq_hz: float) -> np.ndarray:
+        """M with currents I = M V for sources V behind the line impedance: (Z + Z_line)^-1."""
+        z = self.impedances(freq_hz)
+        return np.linalg.inv(z + np.eye(len(z)) * self.params.line_impedance)
+
+    def currents(self, freq_hz: float, w: np.ndarray | None = None) -> np.ndarray:
+        """Base currents per unit weight: the weights themselves (current forcing, buffered) or M w (lines)."""
+        w = self.weights_at(freq_hz) if w is None else w
+        return self._line_matrix(freq_hz) @ w if self.params.feed == "lines" else w
+
+    def feed_impedances_ohm(self, freq_hz: float) -> np.ndarray:
+        """Each element's driven (active) impedance at its base, V_i / I_i [ohm], ground loss included."""
+        i = self.currents(freq_hz)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return (self.impedances(freq_hz) @ i) / i
+
+    def element_responses(self, freq_hz, azimuth_rad, elevation_rad):
+        rv, rh = super().element_responses(freq_hz, azimuth_rad, elevation_rad)
+        if self.params.feed != "lines":
+            return rv, rh
+        # I = M V; the available power of sources V behind Z_line is sum |V|^2 / (8 Z_line), and an element's
+        # response is per unit input power 0.5 |I|^2 (R_rad + R_loss): r_eff = M^T r sqrt(4 Z_line (R_rad + R_loss)).
+        m = self._line_matrix(freq_hz)
+        scale = np.sqrt(4 * self.params.line_impedance * self._element_input_ohm(freq_hz))
+        shape = rv.shape
+        rv = (m.T @ rv.reshape(len(m), -1)).reshape(shape) * scale
+        rh = (m.T @ rh.reshape(len(m), -1)).reshape(shape) * scale
+        return rv, rh
+
+    def norm_matrix(self, freq_hz) -> np.ndarray:
+        if self.params.feed != "current":
+            return super().norm_matrix(freq_hz)
+        # Forced currents: input power 0.5 I^H Re(Z) I against 0.5 |I|^2 (R_rad + R_loss) for one element alone.
+        return np.real(self.impedances(freq_hz)) / self._element_input_ohm(freq_hz)
+
     def describe(self):
-        return {**super().describe(), "height_m": self.params.height}
+        out = {**super().describe(), "height_m": self.params.height, "feed": self.params.feed}
+        f = self._last_freq
+        if self.coupled and f is not None:
+            z = self.feed_impedances_ohm(f)
+            i = self.currents(f)
+            rel = i / i[0]
+            out.update(
+                line_impedance_ohm=self.params.line_impedance if self.params.feed == "lines" else None,
+                feed_impedances_ohm=[[float(x.real), float(x.imag)] for x in z],
+                current_magnitudes=[float(x) for x in np.abs(rel)],
+                current_lags_deg=[float(x) for x in np.mod(-np.degrees(np.angle(rel)), 360.0)],
+            )
+        return out

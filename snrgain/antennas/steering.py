@@ -1,0 +1,84 @@
+"""Automatic steering: the element weights that maximise RDF, front-to-back or SNR.
+
+An array's response is a weighted sum of its elements' responses r_i(d)
+(each with its position phase and, for coupled verticals, its share of the
+coupled currents): E(d) = sum_i w_i r_i(d), normalised by w^H Q w (Q the
+identity for a lossless combiner; see :mod:`snrgain.antennas.array`).  With
+u = conj(w), the power toward d is |u^H r(d)|^2, and over a set of directions
+with weights W_d it is the quadratic form u^H C u, C = sum_d W_d r(d) r(d)^H
+(both polarisations summed).  The ratio of two such forms
+
+    SNR(u) = u^H S u / u^H N u,   S from the target's directions, N from the noise sky (plus receiver noise x Q),
+
+is largest for the principal generalised eigenvector of (S, N); for a
+single target direction a, u ~ N^-1 a: the maximum-SNR weights of array
+signal processing (H. L. Van Trees, "Optimum Array Processing", Wiley (2002),
+Section 6.2, from memory; R. A. Monzingo and T. W. Miller, "Introduction to
+Adaptive Arrays", Wiley (1980), Ch. 3).  Under a uniform sky and no
+receiver noise N is the directivity form and the same weights maximise RDF.
+
+Those weights have free amplitudes: at close spacing they ask for
+superdirective settings, large and nearly cancelling, which a builder's
+phasing lines cannot hold.  By default only the phases move, the amplitudes
+kept as given (equal unless stated): the ratio is then maximised over the
+N - 1 relative phases by scipy.optimize from several starts (the end-fire
+delays, the phases of the free optimum, and seeded random phases), so that
+the result is reproducible.  ``auto_amplitudes = true`` takes the free
+optimum itself.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import linalg, optimize
+
+FB_FLOOR = 1e-6
+"""Front-to-back is maximised as G_front / (G_back + FB_FLOOR G_front): a null deeper than 60 dB counts no more."""
+
+RANDOM_STARTS = 12
+
+
+def quadratic_form(rv, rh, weights=None) -> np.ndarray:
+    """C = sum_d W_d (r_v r_v^H + r_h r_h^H) for element responses (N, D) and direction weights (D,)."""
+    w = np.ones(rv.shape[1]) if weights is None else np.asarray(weights, dtype=float)
+    return (rv * w) @ rv.conj().T + (rh * w) @ rh.conj().T
+
+
+def ratio(u: np.ndarray, s: np.ndarray, n: np.ndarray) -> float:
+    return float(np.real(u.conj() @ s @ u) / np.real(u.conj() @ n @ u))
+
+
+def free_optimum(s: np.ndarray, n: np.ndarray) -> np.ndarray:
+    """u maximising u^H S u / u^H N u (principal generalised eigenvector), scaled to unit largest magnitude."""
+    n = 0.5 * (n + n.conj().T)
+    s = 0.5 * (s + s.conj().T)
+    n = n + np.eye(len(n)) * 1e-12 * np.real(np.trace(n))  # a lossless, noiseless corner stays solvable
+    _, vecs = linalg.eigh(s, n)
+    u = vecs[:, -1]
+    return u / np.max(np.abs(u)) * np.exp(-1j * np.angle(u[0]))
+
+
+def best_phases(objective, amplitudes: np.ndarray, starts: list[np.ndarray], *, seed: int = 0) -> np.ndarray:
+    """u = amplitudes * exp(j phi) with phi[0] = 0 maximising ``objective(u)``; a local search from each start
+    and from RANDOM_STARTS seeded random phases; returns the best u."""
+    n = len(amplitudes)
+    if n == 1:
+        return amplitudes.astype(complex)
+
+    def u_of(phi):
+        return amplitudes * np.exp(1j * np.concatenate([[0.0], phi]))
+
+    def cost(phi):
+        return -objective(u_of(phi))
+
+    rng = np.random.default_rng(seed)
+    trials = [np.angle(s[1:] * np.conj(s[0])) for s in starts]
+    trials += [rng.uniform(-np.pi, np.pi, n - 1) for _ in range(RANDOM_STARTS)]
+    best, best_val = None, np.inf
+    for x0 in trials:
+        res = optimize.minimize(
+            cost, x0, method="Nelder-Mead", options={"xatol": 1e-5, "fatol": 1e-12, "maxiter": 4000}
+        )
+        if res.fun < best_val:
+            best, best_val = res.x, res.fun
+    return u_of(np.mod(best + np.pi, 2 * np.pi) - np.pi)
