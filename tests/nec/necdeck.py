@@ -166,3 +166,44 @@ def metrics_toward(theta_deg, phi_deg, gain_dbi, *, forward_phi_deg, elevation_d
     fwd = float(g[np.isclose(theta_deg, th) & np.isclose(phi_deg, forward_phi_deg)][0])
     back = float(g[np.isclose(theta_deg, th) & np.isclose(phi_deg, back_phi)][0])
     return {"forward_gain_dbi": fwd, "front_to_back_db": fwd - back, "rdf_db": fwd - 10 * np.log10(mean)}
+
+
+def vertical_array_deck(
+    *, freq_mhz, positions_m, height_m, radius_m, voltages, ground=None, series_ohm=0.0, segments=11
+) -> str:
+    """Verticals from the ground up at ``positions_m`` ([x, y] each), each driven at its base segment by a voltage
+    source (complex ``voltages``) behind a series resistance ``series_ohm``; ``ground`` None for perfect ground
+    (GN 1) or (eps_r, sigma) for the Sommerfeld solution (GN 2)."""
+    lines = ["CM verticals with base sources (snrgain coupling validation case)", "CE"]
+    for i, (x, y) in enumerate(positions_m, start=1):
+        lines.append(f"GW {i} {segments} {x:.4f} {y:.4f} 0 {x:.4f} {y:.4f} {height_m:g} {radius_m:g}")
+    lines.append("GE 1")
+    lines.append("GN 1" if ground is None else f"GN 2 0 0 0 {ground[0]:g} {ground[1]:g}")
+    if series_ohm:
+        for i in range(1, len(positions_m) + 1):
+            lines.append(f"LD 0 {i} 1 1 {series_ohm:g} 0 0")
+    lines.append(f"FR 0 1 0 0 {freq_mhz:g} 0")
+    for i, v in enumerate(voltages, start=1):
+        v = complex(v)
+        lines.append(f"EX 0 {i} 1 0 {v.real:.8f} {v.imag:.8f}")
+    lines += ["RP 0 46 360 1000 0 0 2 1", "EN"]
+    return "\n".join(lines) + "\n"
+
+
+def base_currents(text: str, tags: int) -> np.ndarray:
+    """The current [A] in the first segment of wires 1..``tags`` (the bases), from CURRENTS AND LOCATION."""
+    i = text.index("CURRENTS AND LOCATION")
+    out = {}
+    for line in text[i:].splitlines()[5:]:
+        parts = line.split()
+        if len(parts) < 10:
+            if out:
+                break
+            continue
+        try:
+            tag = int(parts[1])
+            re_, im_ = float(parts[6]), float(parts[7])
+        except ValueError:
+            break
+        out.setdefault(tag, complex(re_, im_))
+    return np.array([out[t] for t in range(1, tags + 1)])
