@@ -48,6 +48,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     grid = upper_hemisphere(sc.nside)
     gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
     skies = build_sky(sc, grid, gains)
+    gains = steer_to_sky(sc, grid, skies, gains)
     temps = snr.sky_temperatures(gains, skies)
     spread = snr_spread(sc, grid, skies, gains, temps)
     antennas = antenna_results(sc, gains, temps, skies, spread)
@@ -73,6 +74,53 @@ def build_sky(sc: Scenario, grid, gains: snr.Gains) -> noisemod.SkySeries:
         reference_gain=gains.caches[0].gain_fn,
         reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
     )
+
+
+def wants_sky(antenna) -> bool:
+    """True for an antenna whose weights are chosen under the scenario's own noise sky (auto_for = "snr")."""
+    return bool(getattr(antenna, "optimised", False) and antenna.params.auto_for == "snr")
+
+
+def nearest_target(sc: Scenario, bearing_rad: float) -> int:
+    """Index of the target whose bearing lies nearest ``bearing_rad``."""
+    off = [abs((t.bearing_rad - bearing_rad + np.pi) % (2 * np.pi) - np.pi) for t in sc.targets]
+    return int(np.argmin(off))
+
+
+def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains) -> snr.Gains:
+    """Set the weights of every candidate steered for SNR (``auto_for = "snr"``) under this scenario's sky, and
+    return the gains with theirs evaluated afresh.
+
+    The noise form is the sky's, averaged over the scenario's months and hours (one setting serves them all), plus
+    the antenna's chain noise (its receiver referred to the antenna) on the combiner's normalisation; the signal
+    form is the target nearest the array's bearing (snrgain.antennas.steering).
+    """
+    from snrgain.antennas.steering import quadratic_form
+
+    steered = [k for k, a in enumerate(sc.antennas) if k > 0 and wants_sky(a)]
+    if not steered or skies.maps is None:
+        return gains
+    for k in steered:
+        ant = sc.antennas[k]
+        responses: dict[int, tuple] = {}
+        noise = 0
+        for comps in skies.maps.values():
+            for c in comps:
+                key = id(c.directions)
+                if key not in responses:
+                    responses[key] = ant.element_responses(
+                        sc.freq_hz, c.directions.azimuth_rad, c.directions.elevation_rad
+                    )
+                noise = noise + quadratic_form(*responses[key], c.weight_k_sr / (4 * np.pi))
+        noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
+        t = sc.targets[nearest_target(sc, ant.params.bearing)]
+        signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
+        ant.steer(sc.freq_hz, signal=signal, noise=noise, note=f"SNR toward {t.name} under the site's noise")
+    fresh = snr.antenna_gains([sc.antennas[k] for k in steered], sc.freq_hz, grid, sc.targets)
+    caches, toward, mean = list(gains.caches), gains.toward.copy(), gains.mean.copy()
+    for i, k in enumerate(steered):
+        caches[k], toward[k], mean[k] = fresh.caches[i], fresh.toward[i], fresh.mean[i]
+    return snr.Gains(caches, toward, mean)
 
 
 def antenna_results(

@@ -539,6 +539,14 @@ def load(
             problems.extend(exc.problems)
             continue
         params = ant.params
+        if where == "reference" and getattr(params, "steering", None) == "auto" and params.auto_for == "snr":
+            problems.append(
+                (
+                    "reference.auto_for",
+                    "the reference cannot be steered for SNR: the site's noise is read on it; "
+                    "use auto_for = 'rdf' or 'front_to_back'",
+                )
+            )
         if where != "reference":
             if not params.name:
                 problems.append((f"{where}.name", "every candidate needs a name"))

@@ -363,7 +363,7 @@ class Array(Antenna):
         if f is None:
             return out  # optimised weights not yet chosen: no frequency seen
         w = self.weights_at(f)
-        lag = np.degrees(np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi))
+        lag = np.round(np.degrees(np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi)), 9)
         out.update(
             steered_at_hz=f,
             delays_ns=[float(t * 1e9) for t in self.effective_delays_s(f)],

@@ -291,7 +291,10 @@ def variant(antenna: Antenna, **si_values) -> Antenna:
     if antenna.family == "array":
         raise ValueError("variant: an array keeps its elements as written; build a new array instead")
     base = antenna.params.model_dump(by_alias=True, exclude_none=True)
-    return build({**base, **si_values}, si=True)
+    out = build({**base, **si_values}, si=True)
+    if set(si_values) <= {"ground"} and hasattr(out, "keep_steering_from"):
+        out.keep_steering_from(antenna)  # a phasing set once stays as set when only the soil is varied
+    return out
 
 
 def from_spec(spec: dict) -> Antenna:
