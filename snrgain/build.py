@@ -86,7 +86,12 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             practical_turns_ratio=tr.practical_turns_ratio,
             practical_mismatch_loss_db=tr.practical_mismatch_loss_db,
         )
-    if hasattr(antenna, "effective_delays_s"):
+    for key in ("feed", "line_impedance_ohm", "feed_impedances_ohm", "current_magnitudes", "current_lags_deg"):
+        if key in d:
+            out[key] = d[key]
+    if antenna.family == "combination":
+        out.update(antennas=d.get("antennas"), setting=d.get("setting"))
+    elif hasattr(antenna, "effective_delays_s"):
         name = cable or DEFAULT_PHASING_CABLE
         vf = cable_by_name(name).velocity_factor
         delays = antenna.effective_delays_s(freq_hz)

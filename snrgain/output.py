@@ -250,8 +250,16 @@ def plan_text(r: Results):
         f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone "
         "(weighted mean over targets of the best antenna's SNR gain at each hour)\n"
     )
+    by_name = {a.name: a for a in r.candidates}
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
-        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB\n")
+        parts = by_name[name].parameters.get("antennas") if name in by_name else None
+        needs = [x for x in parts or [] if x != r.reference.name and x not in p.antennas[:k]]
+        also = (
+            f" (build {' and '.join(needs)} for it)"
+            if by_name.get(name) and by_name[name].family == "combination" and needs
+            else ""
+        )
+        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also}\n")
     for t, rows in sorted(p.by_target.items()):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
@@ -289,6 +297,27 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
         if "delays_ns" in b:
             lines = ", ".join(f"{d:.0f} ns = {m:.2f} m" for d, m in zip(b["delays_ns"], b["phasing_lengths_m"]))
             bits.append(f"phasing delays {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})")
+            amps = b.get("amplitudes") or []
+            if amps and max(amps) - min(amps) > 1e-3:
+                bits.append("amplitudes " + ", ".join(f"{20 * np.log10(x):.1f} dB" if x > 0 else "off" for x in amps))
+        if b.get("feed") in ("current", "lines"):
+            z = ", ".join(f"{re:.0f}{im:+.0f}j" for re, im in b["feed_impedances_ohm"])
+            how = "currents forced" if b["feed"] == "current" else f"fed through {b['line_impedance_ohm']:g} ohm lines"
+            bits.append(f"{how}; feed impedances {z} ohm")
+            if b["feed"] == "lines":
+                cur = ", ".join(
+                    f"{m:.2f} at {lag:.0f} deg" for m, lag in zip(b["current_magnitudes"], b["current_lags_deg"])
+                )
+                bits.append(f"element currents (lag) {cur}")
+        if b["family"] == "combination" and b.get("setting"):
+            st = b["setting"]
+            first, second = b["antennas"]
+            bits.append(
+                f"add {second} to {first} through a phase and amplitude unit: {second} lagging "
+                f"{st['phase_lag_deg']:.0f} deg at {st['amplitude_db']:+.1f} dB"
+            )
+            if "loss_with_error_db" in st:
+                bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
         if b["family"] == "vertical":
             bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
         if not bits:

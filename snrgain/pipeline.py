@@ -78,7 +78,7 @@ def build_sky(sc: Scenario, grid, gains: snr.Gains) -> noisemod.SkySeries:
 
 def wants_sky(antenna) -> bool:
     """True for an antenna whose weights are chosen under the scenario's own noise sky (auto_for = "snr")."""
-    return bool(getattr(antenna, "optimised", False) and antenna.params.auto_for == "snr")
+    return bool(getattr(antenna, "optimised", False) and antenna.auto_for == "snr")
 
 
 def nearest_target(sc: Scenario, bearing_rad: float) -> int:
@@ -97,7 +97,8 @@ def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains
     """
     from snrgain.antennas.steering import quadratic_form
 
-    steered = [k for k, a in enumerate(sc.antennas) if k > 0 and wants_sky(a)]
+    steered = [k for k, a in enumerate(sc.antennas) if k > 0 and (wants_sky(a) or a.family == "combination")]
+    steered.sort(key=lambda k: sc.antennas[k].family == "combination")  # a combination's parts are set first
     if not steered or skies.maps is None:
         return gains
     for k in steered:
@@ -115,7 +116,10 @@ def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains
         noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
         t = sc.targets[nearest_target(sc, ant.params.bearing)]
         signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
-        ant.steer(sc.freq_hz, signal=signal, noise=noise, note=f"SNR toward {t.name} under the site's noise")
+        if wants_sky(ant):
+            ant.steer(sc.freq_hz, signal=signal, noise=noise, note=f"SNR toward {t.name} under the site's noise")
+        if ant.family == "combination":
+            ant.setting_loss(sc.freq_hz, signal, noise)
     fresh = snr.antenna_gains([sc.antennas[k] for k in steered], sc.freq_hz, grid, sc.targets)
     caches, toward, mean = list(gains.caches), gains.toward.copy(), gains.mean.copy()
     for i, k in enumerate(steered):

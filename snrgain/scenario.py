@@ -518,6 +518,7 @@ def load(
         (item_label("candidate", i, s), s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])
     ]
     antennas: list[Antenna] = []
+    wheres: list[str] = []
     chains: list[ChainSection | None] = []
     names = set()
     for where, spec in specs:
@@ -554,7 +555,9 @@ def load(
                 problems.append((f"{where}.name", f"name {params.name!r} is used twice"))
             names.add(params.name)
         antennas.append(ant)
+        wheres.append(where)
         chains.append(own_chain)
+    problems.extend(_attach_combinations(antennas, wheres))
 
     tgts = []
     if model is not None:
@@ -634,6 +637,32 @@ def load(
 
 MIN_READING_GAIN = 1e-6
 """Below this gain (-60 dBi) toward a local source, a level read on the reference cannot place the source."""
+
+
+def _attach_combinations(antennas: list[Antenna], wheres: list[str]) -> list[tuple[str, str]]:
+    """Give every combination its two antennas, named by ``antennas`` ("reference" or the reference's name names
+    the reference); problems as (path, message)."""
+    by_name = {a.name: a for a, w in zip(antennas, wheres) if w != "reference"}
+    if antennas and wheres[0] == "reference":
+        by_name["reference"] = antennas[0]
+        by_name.setdefault(antennas[0].name, antennas[0])
+    out = []
+    for ant, where in zip(antennas, wheres):
+        if ant.family != "combination":
+            continue
+        parts = []
+        for i, name in enumerate(ant.params.antennas):
+            if name not in by_name:
+                known = ", ".join(repr(n) for n in by_name)
+                out.append((f"{where}.antennas.{i + 1}", f"no antenna named {name!r}; the scenario has {known}"))
+            else:
+                parts.append(by_name[name])
+        if len(parts) == 2:
+            try:
+                ant.attach(parts)
+            except SpecError as exc:
+                out.extend((f"{where}.{p}", m) for p, m in exc.problems)
+    return out
 
 
 def _local_levels_readable(local: list[LocalSource], reference: Antenna, freq_hz: float) -> list[tuple[str, str]]:

@@ -4,7 +4,7 @@
 Importing this package registers every family in :data:`FAMILIES`.
 """
 
-from snrgain.antennas import array, isotropic, longwire, smallloop, tabulated, termloop, vertical, wires  # noqa: F401
+from snrgain.antennas import array, combination, isotropic, longwire, smallloop, tabulated, termloop, vertical, wires  # noqa: F401
 from snrgain.antennas.base import (
     FAMILIES,
     Antenna,

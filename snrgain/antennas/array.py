@@ -241,7 +241,22 @@ class Array(Antenna):
     @property
     def optimised(self) -> bool:
         """True where auto steering optimises the weights (every ``auto_for`` but "end-fire")."""
-        return self.params.steering == "auto" and self.params.auto_for != "end-fire"
+        return self.params.steering == "auto" and self.auto_for != "end-fire"
+
+    @property
+    def steering_label(self) -> str:
+        """How the weights are set, for output: "given" or "auto (<what it maximises>)"."""
+        return "given" if self.params.steering == "given" else f"auto ({self.auto_for})"
+
+    @property
+    def auto_for(self) -> str:
+        """What auto steering maximises ("rdf", "front_to_back", "snr" or "end-fire")."""
+        return self.params.auto_for
+
+    @property
+    def auto_amplitudes(self) -> bool:
+        """True where auto steering sets amplitudes as well as phases."""
+        return self.params.auto_amplitudes
 
     def static_weights(self, freq_hz: float) -> np.ndarray:
         """The weights as given (or the end-fire delays), w_i = a_i exp(-j (omega tau_i + phase_i))."""
@@ -279,7 +294,7 @@ class Array(Antenna):
         amps = np.array([a for _, _, a in self.weights], dtype=float)
         end_fire = np.conj(self.static_weights(freq_hz))
         front = self.element_responses(freq_hz, np.array([p.bearing]), np.array([p.auto_elevation]))
-        if p.auto_for == "front_to_back" and signal is None:
+        if self.auto_for == "front_to_back" and signal is None:
             back = self.element_responses(freq_hz, np.array([p.bearing + np.pi]), np.array([p.auto_elevation]))
             s_f, s_b = st.quadratic_form(*front), st.quadratic_form(*back)
 
@@ -297,7 +312,7 @@ class Array(Antenna):
             signal = st.quadratic_form(*front)
             note = note or "RDF toward the bearing at the auto elevation (uniform sky)"
         free = st.free_optimum(signal, noise)
-        if p.auto_amplitudes:
+        if self.auto_amplitudes:
             u = free
         else:
             u = st.best_phases(lambda v: st.ratio(v, signal, noise), amps, [end_fire, free])
@@ -350,7 +365,7 @@ class Array(Antenna):
             "elements": len(self.elements),
             "element_family": self.elements[0].family,
             "bearing_deg": float(np.degrees(p.bearing)),
-            "steering": p.steering if p.steering == "given" else f"auto ({p.auto_for})",
+            "steering": self.steering_label,
             "positions_m": [[float(x), float(y)] for x, y in self.positions],
         }
         f = self._last_freq
