@@ -223,7 +223,7 @@ class Array(Antenna):
         if len(families) > 1:
             problems.append(("elements", f"elements must be of one family; found {sorted(families)}"))
         if not problems:
-            problems += _placement_problems(self.positions, [a for _, _, a in self.weights])
+            problems += placement_problems(self.positions, [a for _, _, a in self.weights])
         if problems:
             raise SpecError(problems)
         self.positions = np.array(self.positions, dtype=float)
@@ -401,7 +401,7 @@ class Array(Antenna):
         return d - d.min()
 
 
-def _placement_problems(positions, amplitudes) -> list[tuple[str, str]]:
+def placement_problems(positions, amplitudes) -> list[tuple[str, str]]:
     """Coincident elements (closer than 1 cm) and all-zero amplitudes."""
     out = []
     p = np.asarray(positions, dtype=float).reshape(-1, 2)

@@ -27,7 +27,7 @@ from typing import Literal
 import numpy as np
 from pydantic import Field
 
-from snrgain.antennas.array import AUTO_ELEVATION_RAD, PhaseSense, _placement_problems
+from snrgain.antennas.array import AUTO_ELEVATION_RAD, PhaseSense, placement_problems
 from snrgain.antennas.array import Array as _Array
 from snrgain.antennas.base import Antenna, AntennaParams, SpecError, register
 from snrgain.fields import Bearing, Decibels, Elevation, StrictModel
@@ -92,7 +92,7 @@ class Combination(_Array):
         elif not problems:
             problems += [
                 ("antennas", m.replace("elements", "the two antennas").replace("give each element", "give each"))
-                for _, m in _placement_problems(pos, [1.0, 1.0])
+                for _, m in placement_problems(pos, [1.0, 1.0])
             ]
         if problems:
             raise SpecError(problems)
