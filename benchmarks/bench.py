@@ -119,6 +119,7 @@ def main():
         print(f"{name:<16}{row[0] * 1e3:>15.2f}{row[1] * 1e3:>15.2f}{row[1] / row[0]:>8.1f}")
 
     long_wire_benchmarks(from_spec, upper_hemisphere)
+    steering_benchmarks(data)
 
     p372_dir = REPO.parent / "shared" / "data" / "p372"
     if (p372_dir / "COEFF07W.txt").exists():
@@ -144,6 +145,51 @@ def main():
         print(f"storm-direction sky map for one hour (nside 32): {best * 1e3:.0f} ms")
     else:
         print("\n(P.372 data not found beside the project; atmospheric benchmarks skipped)")
+
+
+def steering_benchmarks(data):
+    """Auto steering of a four-element array: for RDF (uniform sky), and for SNR under the Alder Hollow sky (one
+    month of 8 hours, local source included), with and without coupling (target: under 1 s each)."""
+    import snrgain.pipeline as pl
+    from noisemodels.sphere import upper_hemisphere
+    from snrgain.scenario import load
+
+    q = 41.0
+    square = [[0, 0], [q, 0], [0, q], [q, q]]
+    print(f"\n{'auto steering, 4 verticals':<44}{'best [ms]':>10}{'median [ms]':>13}   (target: < 1 s)")
+    for feed in ("buffered", "lines"):
+        height = "6 m" if feed == "buffered" else "38 m"
+        cand = {
+            "name": "square",
+            "family": "phased-verticals",
+            "positions": square,
+            "height": height,
+            "bearing": 45,
+            "feed": feed,
+        }
+        scen = {
+            **data,
+            "candidate": [{**cand, "auto_for": "snr"}],
+            "uncertainty": {"ground": False, "noise_deciles": False, "local_sources": False, "hours": False},
+        }
+        sc = load(scen)
+        grid = upper_hemisphere(sc.nside)
+        gains = pl.snr.antenna_gains(sc.antennas[:1], sc.freq_hz, grid, sc.targets)
+        skies = pl.build_sky(sc, grid, gains)
+        gains = pl.snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
+        ant = sc.antennas[1]
+
+        def rdf():
+            ant._steered.clear()
+            ant.steer(sc.freq_hz)
+
+        def under_sky():
+            ant._steered.clear()
+            pl.steer_to_sky(sc, grid, skies, gains)
+
+        for label, fn in ((f"for RDF ({feed})", rdf), (f"for SNR under the sky, 8 hours ({feed})", under_sky)):
+            best, med = best_of(fn, n=5)
+            print(f"{label:<44}{best * 1e3:>10.0f}{med * 1e3:>13.0f}")
 
 
 def long_wire_benchmarks(from_spec, upper_hemisphere):

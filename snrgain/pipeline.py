@@ -3,7 +3,8 @@
 1. :func:`snrgain.scenario.load`: validate the file and resolve it into SI objects (antennas, chains, targets,
    noise settings, receiver);
 2. :func:`snrgain.snr.antenna_gains`: every antenna's gains on the sky grid and toward every target;
-3. :func:`snrgain.noise.build_skies`: the noise sky for every month and hour;
+3. :func:`snrgain.noise.build_skies`: the noise sky for every month and hour; :func:`steer_to_sky` sets the
+   arrays steered for SNR and the combinations under that sky;
 4. :func:`snrgain.snr.sky_temperatures`: each antenna's temperature from each component;
 5. :func:`snrgain.spread.snr_spread`: how sure, over the ground, the noise levels and the hours;
 6. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
@@ -351,4 +352,4 @@ def _target_dict(t, w, times) -> dict:
     }
 
 
-__all__ = ["evaluate", "antenna_results", "notices", "summary"]
+__all__ = ["evaluate", "steer_to_sky", "antenna_results", "notices", "summary"]
