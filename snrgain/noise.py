@@ -94,6 +94,15 @@ class LocalSource:
     """Level received on the reference antenna through its chain in the band's bandwidth [dBm]."""
     uncertainty_db: float = 0.0
     """How uncertain the level is: the 10-90 % half-width, treated like a P.372 decile deviation [dB]."""
+    position_m: tuple[float, float] | None = None
+    """A placed source's place on the site plan [m east, m north]; None: a source known by its bearing only.
+    A placed source's ``bearing_rad`` is its bearing from the reference antenna (snrgain.placed)."""
+    height_m: float = 2.0
+    """A placed source's height above the soil [m]."""
+    polarisation: str = "vertical"
+    """What a placed source radiates: "vertical", "horizontal" or "both"."""
+    measured_at_m: tuple[float, float] | None = None
+    """Where a placed source's ``fa_db`` was measured [m east, m north]; None: at the reference antenna."""
 
 
 @dataclass(frozen=True)

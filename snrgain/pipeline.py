@@ -5,7 +5,8 @@
 2. :func:`snrgain.snr.antenna_gains`: every antenna's gains on the sky grid and toward every target;
 3. :func:`snrgain.noise.build_skies`: the noise sky for every month and hour; :func:`steer_to_sky` sets the
    arrays steered for SNR and the combinations under that sky;
-4. :func:`snrgain.snr.sky_temperatures`: each antenna's temperature from each component;
+4. :func:`snrgain.snr.sky_temperatures`: each antenna's temperature from each component, a placed source's
+   made antenna by antenna where it stands (:func:`snrgain.placed.apply`);
 5. :func:`snrgain.spread.snr_spread`: how sure, over the ground, the noise levels and the hours;
 6. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
    antenna's chain (:func:`snrgain.chain.noise_budget`);
@@ -24,7 +25,7 @@ import numpy as np
 from noisemodels import p372
 from snrgain import chain as chainmod
 from snrgain import noise as noisemod
-from snrgain import snr
+from snrgain import placed, snr
 from snrgain.build import build_sheet
 from snrgain.plan import station_plan
 from snrgain.receiver import power_dbm
@@ -50,7 +51,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
     skies = build_sky(sc, grid, gains)
     gains = steer_to_sky(sc, grid, skies, gains)
-    temps = snr.sky_temperatures(gains, skies)
+    temps = placed.apply(sc, sc.antennas, snr.sky_temperatures(gains, skies), skies)
     spread = snr_spread(sc, grid, skies, gains, temps)
     antennas = antenna_results(sc, gains, temps, skies, spread)
     az_cut, el_cut = snr.pattern_cuts(sc.antennas, sc.freq_hz, sc.targets)

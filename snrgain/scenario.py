@@ -165,7 +165,19 @@ class Galactic(StrictModel):
 
 class LocalSource(StrictModel):
     name: str
-    bearing: Bearing
+    bearing: Bearing | None = None
+    """Where a distant-in-effect source lies, seen from the station; or give its place (position or latitude and
+    longitude) and each antenna sees it from where it stands."""
+    position: PlanPoint | None = None
+    """The source's place on the site plan [m east, m north]."""
+    latitude: Latitude | None = None
+    longitude: Longitude | None = None
+    height: quantity("length", ge=0.0, le=100.0) = _SRC.height_m
+    """The source's height above the soil [m] (placed sources)."""
+    polarisation: Literal["vertical", "horizontal", "both"] = "vertical"
+    """What the placed source radiates: a vertical or horizontal small dipole, or both with equal power."""
+    measured_at: PlanPoint | None = None
+    """Where ``fa`` was measured [m east, m north] (placed sources; default: at the reference antenna)."""
     elevation: Elevation = _SRC.elevation_rad
     spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
@@ -180,7 +192,21 @@ class LocalSource(StrictModel):
                 "give exactly one of level (received on the reference antenna: '-95 dBm', 'S7') "
                 "or fa (dB above kT0b on P.372's reference monopole)"
             )
+        places = [self.bearing is not None, self.position is not None, self.latitude is not None]
+        if (self.latitude is None) != (self.longitude is None):
+            raise ValueError("a source's place needs both latitude and longitude")
+        if sum(places) != 1:
+            raise ValueError(
+                "give exactly one of bearing (a direction from the station), position = [east, north] on the "
+                "site plan, or latitude and longitude"
+            )
+        if self.measured_at is not None and (self.fa is None or self.bearing is not None):
+            raise ValueError("measured_at goes with fa on a placed source (a level is read on the reference antenna)")
         return self
+
+    @property
+    def placed(self) -> bool:
+        return self.bearing is None
 
 
 class Noise(StrictModel):
@@ -580,7 +606,7 @@ def load(
         except ValueError as exc:
             problems.append(("receiver", str(exc)))
     if model is not None and antennas and not problems:
-        problems.extend(_local_levels_readable(model.noise.local, antennas[0], freq))
+        problems.extend(_local_levels_readable(model.noise.local, antennas[0], freq, model.site))
     if problems:
         raise ScenarioError(label, problems)
     weights = np.array([t.weight for t in model.target])
@@ -613,7 +639,7 @@ def load(
         band=Band(model.band.frequency, model.band.bandwidth),
         times=union,
         target_times=target_times,
-        noise=_noise_settings(model.noise, data_dir),
+        noise=_noise_settings(model.noise, data_dir, site, antennas[0].params.position or (0.0, 0.0)),
         targets=tuple(tgts),
         target_weights=weights / weights.sum(),
         reference=antennas[0],
@@ -665,22 +691,38 @@ def _attach_combinations(antennas: list[Antenna], wheres: list[str]) -> list[tup
     return out
 
 
-def _local_levels_readable(local: list[LocalSource], reference: Antenna, freq_hz: float) -> list[tuple[str, str]]:
+def _local_levels_readable(
+    local: list[LocalSource], reference: Antenna, freq_hz: float, site: SiteSection
+) -> list[tuple[str, str]]:
     """A local source's level read on the reference antenna needs that antenna to receive from the source's
-    directions (the check the sky builder would fail on later)."""
+    directions (the check the sky builder would fail on later); a placed source must stand clear of it."""
     from noisemodels.sky import compact_source_directions
 
     out = []
-    for i, src in enumerate(local):
-        if src.level is None:
+    ref_m = reference.params.position or (0.0, 0.0)
+    for i, raw in enumerate(local):
+        where = f'noise.local {i + 1} ("{raw.name}")'
+        src = _local_source(raw, site, ref_m)
+        if src.position_m is not None:
+            gap = float(np.hypot(src.position_m[0] - ref_m[0], src.position_m[1] - ref_m[1]))
+            if gap < 1.0:
+                out.append(
+                    (
+                        f"{where}.position",
+                        f"the source stands {gap:.2f} m from the reference antenna; place it at least 1 m away "
+                        "(its direction from the reference must be defined)",
+                    )
+                )
+                continue
+        if raw.level is None:
             continue
-        d = compact_source_directions(src.bearing, src.elevation, src.spread)
+        d = compact_source_directions(src.bearing_rad, src.elevation_rad, src.spread_rad)
         if not np.any(reference.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):
             out.append(
                 (
-                    f'noise.local {i + 1} ("{src.name}").level',
-                    f"the reference antenna receives nothing from bearing {np.degrees(src.bearing):g} deg, "
-                    f"elevation {np.degrees(src.elevation):g} deg, so a level read on it cannot be placed; "
+                    f"{where}.level",
+                    f"the reference antenna receives nothing from bearing {np.degrees(src.bearing_rad):g} deg, "
+                    f"elevation {np.degrees(src.elevation_rad):g} deg, so a level read on it cannot be placed; "
                     "give the level as fa instead",
                 )
             )
@@ -699,7 +741,36 @@ def _sector(sec: Sector | None) -> noisemod.Sector | None:
     return None if sec is None else noisemod.Sector(sec.start, sec.stop, sec.contrast)
 
 
-def _noise_settings(n: Noise, data_dir: Path | None) -> noisemod.NoiseSettings:
+def _local_source(src: LocalSource, site: SiteSection, reference_m) -> noisemod.LocalSource:
+    """A resolved local source: a placed one gets its plan position and its bearing from the reference."""
+    if not src.placed:
+        return noisemod.LocalSource(
+            src.name, src.bearing, src.elevation, src.spread, src.fa, src.level, src.uncertainty
+        )
+    if src.position is not None:
+        pos = (float(src.position[0]), float(src.position[1]))
+    else:
+        bearing, dist = targetmod.geodesic(site.latitude, site.longitude, src.latitude, src.longitude)
+        pos = (dist * np.sin(bearing), dist * np.cos(bearing))
+    de, dn = pos[0] - reference_m[0], pos[1] - reference_m[1]
+    return noisemod.LocalSource(
+        src.name,
+        float(np.mod(np.arctan2(de, dn), 2 * np.pi)),
+        src.elevation,
+        src.spread,
+        src.fa,
+        src.level,
+        src.uncertainty,
+        position_m=pos,
+        height_m=src.height,
+        polarisation=src.polarisation,
+        measured_at_m=None if src.measured_at is None else tuple(float(x) for x in src.measured_at),
+    )
+
+
+def _noise_settings(
+    n: Noise, data_dir: Path | None, site: SiteSection | None = None, reference_m=(0.0, 0.0)
+) -> noisemod.NoiseSettings:
     mm, at, gal = n.man_made, n.atmospheric, n.galactic
     return noisemod.NoiseSettings(
         man_made=None
@@ -721,10 +792,7 @@ def _noise_settings(n: Noise, data_dir: Path | None) -> noisemod.NoiseSettings:
         galactic=None
         if not gal.enabled
         else noisemod.GalacticNoise(gal.critical_frequency_day, gal.critical_frequency_night, gal.layer_height),
-        local=tuple(
-            noisemod.LocalSource(src.name, src.bearing, src.elevation, src.spread, src.fa, src.level, src.uncertainty)
-            for src in n.local
-        ),
+        local=tuple(_local_source(src, site, reference_m) for src in n.local),
         p372_dir=data_dir,
     )
 

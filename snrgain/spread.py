@@ -32,7 +32,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from snrgain import snr
+from snrgain import placed, snr
 from snrgain.antennas.base import variant
 from snrgain.ground import Ground, GroundSpread
 
@@ -129,8 +129,9 @@ def snr_spread(sc, grid, skies, gains: snr.Gains, temps: snr.Temperatures) -> Sn
         if ground is sc.site.ground:
             g, t = gains, temps
         else:
-            g = snr.antenna_gains(_on_ground(sc, ground), sc.freq_hz, grid, sc.targets)
-            t = snr.sky_temperatures(g, skies)
+            moved = _on_ground(sc, ground)
+            g = snr.antenna_gains(moved, sc.freq_hz, grid, sc.targets)
+            t = placed.apply(sc, moved, snr.sky_temperatures(g, skies), skies, ground=ground)
             by = t.by_component.copy()
             for c in measured:  # the reading on the reference antenna is what was measured
                 by[c] *= temps.by_component[c, 0] / by[c, 0]

@@ -269,7 +269,7 @@ class _Shared:
 
     def candidate(self, data: dict, name: str):
         """The AntennaResult of one candidate of a design, against the shared reference and sky."""
-        from snrgain import pipeline, snr
+        from snrgain import pipeline, placed, snr
         from snrgain.scenario import antenna_from_table
 
         sc = self.sc
@@ -288,8 +288,8 @@ class _Shared:
             np.concatenate([self.ref_gains.mean, g.mean]),
         )
         by = np.concatenate([self.ref_temps.by_component, t.by_component], axis=1)
-        temps = snr.Temperatures(by, by.sum(axis=0))
         sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[1 + k]))
+        temps = placed.apply(sub, sub.antennas, snr.Temperatures(by, by.sum(axis=0)), self.skies)
         return pipeline.antenna_results(sub, gains, temps, self.skies)[1]  # nominal: no spread
 
 

@@ -1,0 +1,166 @@
+"""Placed noise sources: each antenna hears a source on the lot from where it stands.
+
+A source given by its place (``[[noise.local]] position`` or latitude and
+longitude) radiates as a small dipole near the ground; its field at any
+point follows :func:`noisemodels.groundwave.dipole_field` (near field,
+Norton's surface-wave attenuation, far field).  The sky carries it as a
+compact component seen from the reference antenna (its level read there,
+or its Fa at ``measured_at``); every other antenna's share is scaled by how
+much more or less it picks up of the same source:
+
+    T_A = T_ref x P_A / P_ref,
+
+P the power an antenna delivers from the source's field, in units where a
+plane wave of unit field delivers the antenna's realized gain:
+
+- a compact antenna (vertical, loop, array, pattern table...) at its
+  position: P = G_v(d) |E_v|^2 + G_h(d) |E_h|^2, d the direction from the
+  antenna toward the source at the source's arrival elevation, E the field
+  at the antenna (an array at the centroid of its elements);
+- a long wire (beverage, unterminated, bog): the field is applied point by
+  point along the wire, each point seeing a wave arriving from the source
+  with the local amplitude and phase E(r(x)), and the line model sums the
+  distributed EMFs (and the down-leads' at both ends) through its transfer
+  functions, numerically (:func:`wire_feed_current`).  So a wire running past
+  a source is modelled, not approximated by a direction.
+
+Antennas without a position stand at the reference's.  The distance used
+for the field is the slant distance sqrt(r^2 + height^2), so an antenna
+right beside a source stays finite.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy.integrate import trapezoid
+
+from noisemodels.groundwave import dipole_field
+
+WIRE_FAMILIES = ("beverage", "unterminated", "bog")
+"""Long-wire families whose pickup of a placed source is integrated along the wire."""
+
+
+def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
+    """(E_v, E_h) of a placed source at plan points (N, 2) [m], relative to the dipole's far field at 1 m."""
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    r = np.sqrt((p[:, 0] - src.position_m[0]) ** 2 + (p[:, 1] - src.position_m[1]) ** 2 + src.height_m**2)
+    eps = None if ground is None else ground.permittivity
+    sig = None if ground is None else ground.conductivity_s_per_m
+    share = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}[src.polarisation]
+    ev = np.sqrt(share[0]) * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig) if share[0] else 0
+    eh = (
+        np.sqrt(share[1])
+        * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig, polarisation="horizontal")
+        if share[1]
+        else 0
+    )
+    return np.broadcast_to(ev, r.shape).astype(complex), np.broadcast_to(eh, r.shape).astype(complex)
+
+
+def bearing_to(src, points_m) -> np.ndarray:
+    """Compass bearing [rad] from each plan point toward the source."""
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    return np.mod(np.arctan2(src.position_m[0] - p[:, 0], src.position_m[1] - p[:, 1]), 2 * np.pi)
+
+
+def antenna_point(antenna, reference_m) -> np.ndarray:
+    """Where an antenna hears from: its position (an array's element centroid), else the reference's [m]."""
+    pos = getattr(antenna, "positions", None)
+    if pos is not None and len(pos):
+        return np.asarray(pos, dtype=float).mean(axis=0)
+    p = antenna.params.position
+    return np.asarray(reference_m if p is None else p, dtype=float)
+
+
+def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarray:
+    """Sample distances along a wire [m]: finer than a 40th of a wavelength and a quarter of the closest
+    approach to the source, at least 400 points, at most 40,000."""
+    lam = 299_792_458.0 / freq_hz
+    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
+    n = int(np.clip(np.ceil(length_m / step), 400, 40_000)) + 1
+    return np.linspace(0.0, length_m, n)
+
+
+def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) -> complex:
+    """The feed current [A] of a long wire driven by a placed source's field (module docstring), for unit field
+    at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (trapezoid rule)."""
+    from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
+
+    b = wire.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    feed = np.asarray(feed_m, dtype=float)
+    L = wire.length_m
+    if x_m is None:
+        to_src = np.asarray(src.position_m) - feed
+        along = float(np.clip(to_src @ u, 0.0, L))
+        closest = float(np.hypot(*(to_src - along * u)))
+        x_m = wire_samples(L, freq_hz, float(np.hypot(closest, src.height_m)))
+    x = np.asarray(x_m, dtype=float)
+    pts = feed[None, :] + x[:, None] * u[None, :]
+    ev, eh = source_field(src, pts, freq_hz, ground)
+    az = bearing_to(src, pts)
+    w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=b, ground=wire.ground)
+    f_v, f_h = field_along_wire(w, wire.wire_height_m())
+    emf = -w.cos_dphi * f_v[w.inv] * ev - w.sin_dphi * f_h[w.inv] * eh  # per metre along the wire
+    ln = wire.line(freq_hz)
+    g, z0 = ln.gamma, ln.z0
+    z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
+    z_far = wire.far_load_ohm(freq_hz)
+    if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
+        transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
+    else:
+        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
+        transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
+    current = trapezoid(emf * transfer, x)
+    if wire.has_leads:
+        lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv]  # per unit field, at the source's elevation
+        current += lead[0] * ev[0] * transfer[0]  # up the feed lead
+        if z_far is not None:
+            current -= lead[-1] * ev[-1] * transfer[-1]  # down the far lead
+    return complex(current)
+
+
+def received_power(antenna, src, freq_hz: float, reference_m, ground) -> float:
+    """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain."""
+    from snrgain.antennas.longwire import port_response
+
+    if antenna.family in WIRE_FAMILIES:
+        feed = antenna_point(antenna, reference_m)
+        i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
+        load = antenna.receiver_load_ohm(freq_hz)
+        e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
+        return float(np.abs(e[0]) ** 2)
+    at = antenna_point(antenna, reference_m)
+    ev, eh = source_field(src, at[None, :], freq_hz, ground)
+    az = bearing_to(src, at[None, :])
+    gv, gh = antenna.partial_gains(freq_hz, az, np.array([src.elevation_rad]))
+    return float(gv[0] * abs(ev[0]) ** 2 + gh[0] * abs(eh[0]) ** 2)
+
+
+def apply(sc, antennas, temps, skies, *, ground=None):
+    """Temperatures with each placed source's row made antenna by antenna (module docstring); ``ground`` the soil
+    under the source's field (default: the site's).  Returns ``temps`` unchanged when no source is placed."""
+    from snrgain import snr
+
+    placed = [s for s in sc.noise.local if s.position_m is not None]
+    if not placed:
+        return temps
+    ground = sc.site.ground if ground is None else ground
+    ref_m = sc.reference.params.position or (0.0, 0.0)
+    by = temps.by_component.copy()
+    for src in placed:
+        c = skies.names.index(src.name)
+        powers = np.array([received_power(a, src, sc.freq_hz, ref_m, ground) for a in antennas])
+        if not powers[0] > 0:
+            raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
+        scale = powers / powers[0]
+        if src.measured_at_m is not None:  # Fa given where it was measured, not at the reference
+            e_ref = source_field(src, np.array([ref_m]), sc.freq_hz, ground)
+            e_at = source_field(src, np.array([src.measured_at_m]), sc.freq_hz, ground)
+            scale = (
+                scale
+                * (np.abs(e_ref[0][0]) ** 2 + np.abs(e_ref[1][0]) ** 2)
+                / (np.abs(e_at[0][0]) ** 2 + np.abs(e_at[1][0]) ** 2)
+            )
+        by[c] = by[c, :1] * scale[:, None, None]
+    return snr.Temperatures(by, by.sum(axis=0))
