@@ -27,6 +27,20 @@ def notice_text(n: Notice) -> str:
             f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
             "element's signal by its phase) or its delays (positive: the signal comes later)"
         )
+    if n.code == "off-lot":
+        return f"{n.antenna}: runs off the lot, up to {v['outside_m']:.0f} m beyond its edge"
+    if n.code == "in-keep-out":
+        return f"{n.antenna}: enters the keep-out area {v['area']!r}"
+    if n.code == "wires-cross":
+        return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
+    if n.code == "near-tx-vertical":
+        return (
+            f"{n.antenna}: comes within {v['distance_m']:.0f} m of the transmitting vertical (keep "
+            f"{v['clearance_m']:.0f} m): a resonant vertical nearby re-radiates what it receives and distorts the "
+            "pattern; detuning it while receiving (opening its feed, or a detuning network) is the usual cure"
+        )
+    if n.code == "source-in-keep-out":
+        return f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r}"
     if n.code == "man-made-extrapolated":
         return (
             f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "

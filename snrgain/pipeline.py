@@ -224,6 +224,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
                         "lobe-away-from-bearing", ant.name, {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off}
                     )
                 )
+    from snrgain.lot import site_notices
+
+    out.extend(site_notices(sc))
     lowest = p372.MAN_MADE_RANGE_HZ[0]
     if sc.freq_hz < lowest and sc.noise.man_made is not None:
         out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))

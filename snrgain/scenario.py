@@ -52,13 +52,33 @@ _SRC = noisemod.LocalSource
 # -- the sections ------------------------------------------------------------
 
 
+class KeepOut(StrictModel):
+    name: str
+    outline: list[PlanPoint] = Field(min_length=3)
+    """Corners [east, north] on the site plan, in order around the edge."""
+
+
 class SiteSection(StrictModel):
     name: str = "unnamed site"
     latitude: Latitude
     longitude: Longitude
     ground: GroundField = "moist loam"
     lot: list[PlanPoint] | None = Field(default=None, min_length=3)
-    """The lot's outline on the site plan, [east, north] corners (for the plan view)."""
+    """The lot's outline on the site plan, [east, north] corners (the plan view, the placement checks, layout)."""
+    keep_out: list[KeepOut] = Field(default_factory=list, max_length=64)
+    """Areas no antenna may enter: the house, a road, the transmitting vertical's radial field."""
+    tx_clearance: quantity("length", ge=0.0, le=2000.0) | None = None
+    """How far receiving antennas should stay from the transmitting vertical [m] (default: half a wavelength)."""
+
+    @model_validator(mode="after")
+    def _outlines(self):
+        from snrgain.lot import polygon
+
+        if self.lot is not None:
+            polygon(self.lot, "lot")
+        for k in self.keep_out:
+            polygon(k.outline, f"keep_out {k.name!r}")
+        return self
 
 
 class BandSection(StrictModel):
@@ -356,6 +376,10 @@ class Site:
     ground: Ground | None
     lot_m: tuple[tuple[float, float], ...] | None = None
     ground_spread: GroundSpread | None = None
+    keep_out: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
+    """Areas no antenna may enter: (name, outline [m east, m north])."""
+    tx_clearance_m: float | None = None
+    """How far receiving antennas should stay from the transmitting vertical [m]; None: half a wavelength."""
 
 
 @dataclass(frozen=True)
@@ -635,6 +659,8 @@ def load(
             make_ground(site.ground),
             None if site.lot is None else tuple(site.lot),
             ground_spread(site.ground),
+            tuple((k.name, tuple(k.outline)) for k in site.keep_out),
+            site.tx_clearance,
         ),
         band=Band(model.band.frequency, model.band.bandwidth),
         times=union,

@@ -1,0 +1,107 @@
+"""The lot: placement warnings (shapely) and outlines that cannot be."""
+
+import pytest
+from click.testing import CliRunner
+
+import snrgain
+from snrgain.cli.main import cli
+from snrgain.errors import ScenarioError
+
+BASE = """
+[site]
+name = "test lot"
+latitude = 44.2
+longitude = -71.3
+lot = [[-20, -20], [180, -20], [180, 180], [-20, 180]]
+keep_out = [{{ name = "house", outline = [[60, 60], [90, 60], [90, 80], [60, 80]] }}]
+{extra_site}
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[noise.local]]
+name = "tv"
+position = [75, 70]
+fa = 60
+
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "40 m"
+
+[[candidate]]
+name = "inside"
+family = "beverage"
+length = "150 m"
+height = "2 m"
+bearing = 0
+position = [150, 0]
+
+{candidates}
+"""
+
+
+def _codes(text):
+    r = snrgain.evaluate(text)
+    return {(n.code, n.antenna) for n in r.notices}
+
+
+def test_a_wire_inside_the_lot_and_clear_of_everything_draws_no_warning():
+    codes = _codes(BASE.format(extra_site="", candidates=""))
+    assert not {c for c in codes if c[1] == "inside"}
+    assert ("source-in-keep-out", None) in codes  # the TV is in the house: said, not refused
+
+
+@pytest.mark.parametrize(
+    "cand, code",
+    [
+        ('position = [0, 0]\nbearing = 0\nlength = "250 m"', "off-lot"),
+        ('position = [50, 70]\nbearing = 90\nlength = "100 m"', "in-keep-out"),
+        ('position = [100, 20]\nbearing = 90\nlength = "60 m"', "wires-cross"),
+        ('position = [10, 10]\nbearing = 45\nlength = "100 m"', "near-tx-vertical"),
+    ],
+)
+def test_placement_warnings(cand, code):
+    c = f'[[candidate]]\nname = "x"\nfamily = "beverage"\nheight = "2 m"\n{cand}\n'
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates=c))
+    assert any(n.code == code and "x" in (n.antenna, n.values.get("other")) for n in r.notices)
+
+
+def test_tx_clearance_is_the_users():
+    c = '[[candidate]]\nname = "x"\nfamily = "vertical"\nheight = "6 m"\nposition = [30, 0]\n'
+    assert ("near-tx-vertical", "x") in _codes(BASE.format(extra_site="", candidates=c))  # half a wave: 82 m
+    assert ("near-tx-vertical", "x") not in _codes(BASE.format(extra_site='tx_clearance = "20 m"', candidates=c))
+
+
+@pytest.mark.parametrize(
+    "bad, message",
+    [
+        ("lot = [[0, 0], [100, 100], [100, 0], [0, 100]]", "lot: the outline is not a simple polygon"),
+        ('keep_out = [{ name = "road", outline = [[0, 0], [10, 10], [10, 0], [0, 10]] }]', "keep_out 'road'"),
+        ("lot = [[0, 0], [10, 0], [20, 0]]", "lot: the outline is not a simple polygon"),
+    ],
+)
+def test_outlines_that_cannot_be(bad, message, tmp_path):
+    text = BASE.format(extra_site="", candidates="")
+    key = bad.split(" =")[0]
+    lines = [ln for ln in text.splitlines() if not ln.startswith(key + " =")]
+    text = "\n".join(lines).replace('name = "test lot"', f'name = "test lot"\n{bad}')
+    with pytest.raises(ScenarioError, match=message):
+        snrgain.evaluate(text)
+    p = tmp_path / "s.toml"
+    p.write_text(text)
+    res = CliRunner().invoke(cli, ["check", str(p)])
+    assert res.exit_code == 2 and "Traceback" not in res.output
