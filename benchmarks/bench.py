@@ -120,6 +120,7 @@ def main():
 
     long_wire_benchmarks(from_spec, upper_hemisphere)
     steering_benchmarks(data)
+    layout_benchmark()
 
     p372_dir = REPO.parent / "shared" / "data" / "p372"
     if (p372_dir / "COEFF07W.txt").exists():
@@ -145,6 +146,38 @@ def main():
         print(f"storm-direction sky map for one hour (nside 32): {best * 1e3:.0f} ms")
     else:
         print("\n(P.372 data not found beside the project; atmospheric benchmarks skipped)")
+
+
+def layout_benchmark():
+    """snrgain layout on two placeable Beverages with a placed noise source (tests/data/layout-two-beverages.toml):
+    as written (about 20 acres), and on a 2-acre lot (90 m square, wires of 60-120 m, 25 m from the TX vertical);
+    target: under 60 s on 2 cores."""
+    import copy
+
+    from snrgain.layout import Problem
+    from snrgain.scenario import load, read_source
+
+    data, _, base = read_source(REPO / "tests" / "data" / "layout-two-beverages.toml")
+    small = copy.deepcopy(data)
+    small["site"]["lot"] = [[-10, -10], [80, -10], [80, 80], [-10, 80]]
+    small["site"]["keep_out"] = [{"name": "house", "outline": [[20, -5], [40, -5], [40, 10], [20, 10]]}]
+    small["site"]["tx_clearance"] = "25 m"
+    small["noise"]["local"][0]["position"] = ["60 m", "30 m"]
+    for c in small["candidate"]:
+        c["length"] = "90 m"
+        c["place"]["length"] = ["60 m", "120 m"]
+    for label, d in (("as written", data), ("2-acre lot", small)):
+        lot = d["site"]["lot"]
+        area = 0.5 * abs(sum(x0 * y1 - x1 * y0 for (x0, y0), (x1, y1) in zip(lot, lot[1:] + lot[:1])))
+
+        def run(d=d):
+            Problem(load(d), d, base_dir=base).search(keep=3)
+
+        best, med = best_of(run, n=3)
+        print(
+            f"layout search, 2 placeable Beverages, {label} ({area / 4046.86:.1f} acres): best {best:.1f} s, "
+            f"median {med:.1f} s (target: under 60 s)"
+        )
 
 
 def steering_benchmarks(data):

@@ -32,6 +32,8 @@ import numpy as np
 from snrgain.results import Notice
 
 WIRE_FAMILIES = ("beverage", "unterminated", "bog", "two-wire")
+OFF_LOT_TOLERANCE_M = 0.1
+"""Beyond the lot by less than this [m] is on it (positions written to 0.1 m)."""
 DEFAULT_TX_CLEARANCE_WAVELENGTHS = 0.5
 """Default distance to keep receiving antennas from a resonant transmitting vertical: half a wavelength (common
 practice; closer, detune the vertical while receiving)."""
@@ -93,7 +95,8 @@ def site_notices(sc) -> list[Notice]:
         if lot is not None and not lot.covers(shape):
             outside = shape.difference(lot)
             far = max((lot.exterior.distance(Point(c)) for c in _coords(outside)), default=0.0)
-            out.append(Notice("off-lot", ant.name, {"outside_m": float(far)}))
+            if far > OFF_LOT_TOLERANCE_M:
+                out.append(Notice("off-lot", ant.name, {"outside_m": float(far)}))
         for name, area in keep:
             if shape.intersects(area):
                 out.append(Notice("in-keep-out", ant.name, {"area": name}))

@@ -120,17 +120,18 @@ def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) ->
     return complex(current)
 
 
-def received_power(antenna, src, freq_hz: float, reference_m, ground) -> float:
-    """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain."""
+def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:
+    """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain;
+    ``at_m`` puts the antenna (its feed point) there instead of at its position."""
     from snrgain.antennas.longwire import port_response
 
     if antenna.family in WIRE_FAMILIES:
-        feed = antenna_point(antenna, reference_m)
+        feed = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
         i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
         load = antenna.receiver_load_ohm(freq_hz)
         e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
         return float(np.abs(e[0]) ** 2)
-    at = antenna_point(antenna, reference_m)
+    at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
     ev, eh = source_field(src, at[None, :], freq_hz, ground)
     az = bearing_to(src, at[None, :])
     gv, gh = antenna.partial_gains(freq_hz, az, np.array([src.elevation_rad]))

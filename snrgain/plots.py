@@ -449,6 +449,59 @@ def site_plan(results, *, ax=None):
     return fig
 
 
+def layout_plan(plan: dict, *, ax=None):
+    """A layout on the lot: the outline, keep-out areas, the transmitting vertical with its clearance circle,
+    placed noise sources, the other antennas, and each placed antenna from its feed point with an arrow along its
+    bearing.  ``plan`` is :func:`snrgain.layout.plan_data`."""
+    from matplotlib.patches import Circle
+
+    own = ax is None
+    fig, (ax,) = _axes(ax, figsize=(7.5, 7.5))
+    xs, ys = zip(*(list(plan["lot"]) + [plan["lot"][0]]))
+    ax.fill(xs, ys, color="honeydew", ec="darkgreen", lw=1.5, label="lot")
+    for i, (name, pts) in enumerate(plan["keep_out"]):
+        kx, ky = zip(*(list(pts) + [pts[0]]))
+        ax.fill(kx, ky, color="lightgrey", ec="dimgrey", hatch="//", lw=1, label="keep out" if i == 0 else None)
+        ax.annotate(name, (float(np.mean(kx[:-1])), float(np.mean(ky[:-1]))), ha="center", va="center", fontsize=8)
+    if plan.get("tx") is not None:
+        ax.plot(*plan["tx"], marker="*", color="black", ms=14, ls="none", label="transmitting vertical")
+        ax.add_patch(Circle(plan["tx"], plan["clearance_m"], fill=False, ls=":", color="black", lw=1))
+    for name, (e, n) in plan["sources"]:
+        ax.plot([e], [n], marker="X", color="crimson", ms=11, ls="none", label=f"noise: {name}")
+    for name, coords in plan["fixed"]:
+        cx, cy = zip(*coords)
+        ax.plot(cx, cy, color="grey", lw=1.5, marker="s" if len(coords) > 1 else "^", ms=5, label=f"{name} (fixed)")
+    for c, col in zip(plan["layout"]["candidates"], _colors(len(plan["layout"]["candidates"]))):
+        e, n = c["position_m"]
+        b = None if c["bearing_deg"] is None else np.radians(c["bearing_deg"])
+        length = c["length_m"] or 0.0
+        label = f"{c['name']}: {c['snr_gain_db']:+.1f} dB toward {c['target']}"
+        if length and b is not None:
+            x1, y1 = e + length * np.sin(b), n + length * np.cos(b)
+            ax.plot([e, x1], [n, y1], color=col, lw=2.5, label=label)
+            ax.plot([e], [n], marker="s", color=col, ms=7)
+        else:
+            ax.plot([e], [n], marker="^", color=col, ms=10, ls="none", label=label)
+        if b is None:
+            continue
+        mid, arrow = 0.5 * length, 12.0  # a direction mark on the wire (or from a compact antenna)
+        ax.annotate(
+            "",
+            xy=(e + (mid + arrow) * np.sin(b), n + (mid + arrow) * np.cos(b)),
+            xytext=(e + mid * np.sin(b), n + mid * np.cos(b)),
+            arrowprops={"arrowstyle": "-|>", "color": col, "lw": 2, "mutation_scale": 18},
+        )
+    ax.set_aspect("equal")
+    ax.set_xlabel("east (m)")
+    ax.set_ylabel("north (m)")
+    ax.grid(alpha=0.3)
+    ax.set_title(f"Layout, {plan['site']} (squares: feed points; arrowheads: favoured direction)")
+    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.1), ncols=1, frameon=False)
+    if own:
+        fig.tight_layout()
+    return fig
+
+
 def located_sources(res, *, ax=None):
     """Polar plot of the directions ``snrgain locate`` fitted (a LocateResult), with their uncertainty."""
     own = ax is None

@@ -10,7 +10,7 @@ value and what is allowed; nothing runs on an invalid scenario.
 from __future__ import annotations
 
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
@@ -50,6 +50,36 @@ _SRC = noisemod.LocalSource
 
 
 # -- the sections ------------------------------------------------------------
+
+
+PLACEABLE_FAMILIES = ("beverage", "unterminated", "bog", "two-wire", "vertical", "terminated-loop", "small-loop")
+"""Families ``snrgain layout`` can move: one feed point, a bearing, and for wires a length."""
+
+
+class PlaceSection(StrictModel):
+    """What ``snrgain layout`` may change of a candidate: its position (always, within the lot), and its bearing
+    and length within ranges."""
+
+    bearing: list[Bearing] | None = Field(default=None, min_length=2, max_length=2)
+    """[from, to] compass bearings, clockwise (e.g. ["20 deg", "70 deg"])."""
+    length: list[quantity("length", ge=1.0, le=3000.0)] | None = Field(default=None, min_length=2, max_length=2)
+    """[shortest, longest] wire length [m]."""
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        if self.length is not None and self.length[0] > self.length[1]:
+            raise ValueError(f"length: the range runs backwards ({self.length[0]:g} m > {self.length[1]:g} m)")
+        return self
+
+    def problem_for(self, antenna) -> str | None:
+        """Why this antenna cannot be placed as asked, or None."""
+        if antenna.family not in PLACEABLE_FAMILIES:
+            return f"snrgain layout places {', '.join(PLACEABLE_FAMILIES)}; not {antenna.family!r}"
+        if self.length is not None and not hasattr(antenna, "length_m"):
+            return f"a {antenna.family} has no length to vary"
+        if self.bearing is not None and not hasattr(antenna.params, "bearing"):
+            return f"a {antenna.family} has no bearing to vary"
+        return None
 
 
 class KeepOut(StrictModel):
@@ -440,6 +470,8 @@ class Scenario:
     nside: int
     uncertainty: Uncertainty = Uncertainty()
     max_antennas: int | None = None
+    placeable: dict[str, Any] = field(default_factory=dict)
+    """Candidates that ``snrgain layout`` may move: name -> PlaceSection (the ranges it may search)."""
     """The most receiving antennas the station plan may add to the reference (None: as many as help)."""
 
     @property
@@ -571,8 +603,21 @@ def load(
     wheres: list[str] = []
     chains: list[ChainSection | None] = []
     names = set()
+    placeable: dict[str, PlaceSection] = {}
     for where, spec in specs:
         own_chain = None
+        own_place = None
+        if isinstance(spec, dict) and "place" in spec:
+            spec = dict(spec)
+            raw_place = spec.pop("place")
+            if where == "reference":
+                problems.append(("reference.place", "the reference stands where it is; only candidates are placed"))
+                continue
+            try:
+                own_place = PlaceSection.model_validate(raw_place)
+            except ValidationError as exc:
+                problems.extend(pydantic_problems(exc, f"{where}.place", raw_place))
+                continue
         if isinstance(spec, dict) and "chain" in spec:
             spec = dict(spec)
             raw_chain = spec.pop("chain")
@@ -607,6 +652,11 @@ def load(
         antennas.append(ant)
         wheres.append(where)
         chains.append(own_chain)
+        if own_place is not None:
+            problem = own_place.problem_for(ant)
+            if problem:
+                problems.append((f"{where}.place", problem))
+            placeable[ant.name] = own_place
     problems.extend(_attach_combinations(antennas, wheres))
 
     tgts = []
@@ -684,6 +734,7 @@ def load(
             beat_by_db=u.beat_by,
         ),
         max_antennas=model.plan.max_antennas,
+        placeable=placeable,
     )
 
 

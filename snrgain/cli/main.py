@@ -7,6 +7,7 @@ import click
 from snrgain import __version__
 from snrgain.cli.calibrate import calibrate
 from snrgain.cli.check import check
+from snrgain.cli.layout import layout
 from snrgain.cli.locate import locate
 from snrgain.cli.new import new
 from snrgain.cli.noise import noise
@@ -54,6 +55,7 @@ cli.add_command(locate)
 cli.add_command(report)
 cli.add_command(figures)
 cli.add_command(sweep)
+cli.add_command(layout)
 
 
 def main() -> None:

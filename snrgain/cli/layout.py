@@ -1,0 +1,112 @@
+"""``snrgain layout``: where on the lot to put the placeable candidates."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from snrgain.cli.options import (
+    check_output,
+    emit_json,
+    handle_errors,
+    overwrite_option,
+    p372_dir_option,
+    write_output,
+)
+
+
+@click.command("layout")
+@click.argument("scenario", type=click.Path(exists=True, dir_okay=False, path_type=str))
+@click.option("--keep", type=click.IntRange(1, 10), default=3, show_default=True, help="How many layouts to list.")
+@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@click.option(
+    "--write",
+    "write_to",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Write a copy of the scenario with the best layout's positions, bearings and lengths.",
+)
+@click.option(
+    "--plot",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Save the best layout on the lot (PNG or SVG).",
+)
+@p372_dir_option
+@overwrite_option
+@handle_errors
+def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
+    """Search positions, bearings and lengths on the lot for the candidates with a place table.
+
+    A candidate with  place = { bearing = ["20 deg", "70 deg"], length = ["150 m", "300 m"] }  may stand
+    anywhere on [site] lot, outside [site] keep_out areas, tx_clearance (default half a wavelength) from
+    the transmitting vertical, without crossing another wire; its bearing and length stay in their ranges
+    (fixed where none is given).  Each is scored by its SNR gain over the reference toward the target
+    nearest its bearing, with placed noise sources ([[noise.local]] position = [east, north]) heard where
+    it stands.  The search is a grid with a local refinement: the same file gives the same layout.
+
+    Before you build: keep wires clear of power lines, call the utilities' locating service before
+    driving ground rods, and mark wires near the ground: they trip people and animals.
+    """
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+
+    from snrgain import layout as lay
+    from snrgain.scenario import load, read_source
+
+    for target in (write_to, plot):
+        check_output(target, overwrite=overwrite)
+    data, label, base_dir = read_source(Path(scenario))
+    sc = load(data, p372_dir=p372_dir, base_dir=base_dir, label=label)
+    problem = lay.Problem(sc, data, base_dir=base_dir)
+    with Progress(
+        TextColumn("layout"), BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(), transient=True
+    ) as bar:
+        task = bar.add_task("designs", total=None)
+        layouts = problem.search(keep=keep, progress=lambda done, total: bar.update(task, completed=done, total=total))
+    out = lay.as_dict(layouts)
+    best = layouts[0]
+    if plot is not None:
+        from snrgain import plots
+
+        plots.save(plots.layout_plan(lay.plan_data(problem, best)), plot, overwrite=overwrite)
+        out["plot"] = plot
+    if write_to is not None:
+        text = Path(scenario).read_text(encoding="utf-8")
+        write_output(write_to, lay.with_layout(text, best), overwrite=overwrite)
+        out["written"] = write_to
+    if fmt == "json":
+        emit_json(out)
+        return
+    _print(layouts, sc)
+    if plot is not None:
+        click.echo(f"wrote {plot}", err=True)
+
+
+def _print(layouts, sc) -> None:
+    import numpy as np
+    from rich.console import Console
+    from rich.table import Table
+
+    from snrgain.units import FT_PER_M
+
+    console = Console()
+    for rank_no, lay in enumerate(layouts, start=1):
+        t = Table(title=f"Layout {rank_no}: {lay.total_db:+.1f} dB in all (SNR gain over {sc.reference.name})")
+        for col in ("antenna", "feed (E, N)", "toward", "length", "target", "SNR gain"):
+            t.add_column(col, justify="left" if col in ("antenna", "target") else "right")
+        for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets):
+            length = "-" if d.length_m is None else f"{d.length_m:.0f} m/{d.length_m * FT_PER_M:.0f} ft"
+            t.add_row(
+                d.name,
+                f"{d.east_m:.0f} m, {d.north_m:.0f} m",
+                "-" if d.bearing_rad is None else f"{np.degrees(d.bearing_rad):.0f} deg",
+                length,
+                tgt,
+                f"{g:+.1f} dB",
+            )
+        console.print(t)
+    console.print(
+        "Before you build: keep wires clear of power lines; call the utilities' locating service before driving "
+        "ground rods; mark wires near the ground, they trip people and animals. Follow local codes."
+    )

@@ -1,0 +1,518 @@
+"""Where on the lot: the positions, bearings and lengths that give the placeable candidates their best SNR.
+
+A candidate with a ``place`` table (``place = { bearing = ["20 deg", "70 deg"],
+length = ["150 m", "300 m"] }``) may stand anywhere on the lot (``[site]
+lot``) outside the keep-out areas and clear of the transmitting vertical
+(``[site] tx_clearance``), at least 10 m from any other wire (common
+practice: closer, wires couple), with its bearing
+and length inside the ranges given (fixed where none is given).
+
+Its worth is its nominal SNR gain over the reference toward the target
+nearest its bearing range's middle (the scenario's months and hours for that
+target, no spreads), with the placed noise sources heard where it stands
+(snrgain.placed).  Only the placed sources depend on the position, so each
+(bearing, length) pair costs one pattern and one set of sky temperatures,
+and every position after that only its pickup of the placed sources.
+
+The search (deterministic, so reproducible):
+
+1. a grid per candidate: bearings every 5 deg or less over the range, five
+   lengths over the range, feed points on a square grid over the lot (about
+   150 inside it); the feasible designs kept, the best few per candidate;
+2. the best combination of those that do not cross one another;
+3. a joint local refinement from it (scipy.optimize.minimize, Nelder-Mead, on
+   the continuous values with a penalty for any violation), kept only if it
+   is feasible and better.
+
+The next-best combinations are reported too, so a builder can weigh a
+layout that is nearly as good and easier to build.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from snrgain import placed as placedmod
+from snrgain import snr
+from snrgain.lot import WIRE_FAMILIES, polygon, tx_clearance_m
+
+BEARING_STEP_RAD = float(np.radians(5.0))
+LENGTHS_PER_RANGE = 5
+POSITIONS_ON_LOT = 150
+TOP_PER_CANDIDATE = 40
+MAX_COMBINATIONS = 100_000
+EDGE_MARGIN_M = 1.0
+"""Placed antennas keep this far inside the lot's outline [m]."""
+WIRE_SEPARATION_M = 10.0
+"""Placed wires keep at least this far from other wires (common practice: closer, they couple)."""
+
+
+@dataclass(frozen=True)
+class Design:
+    """One candidate's place: feed point [m east, m north], bearing [rad] (None: the family has none), wire length
+    [m] (None: not a wire)."""
+
+    name: str
+    east_m: float
+    north_m: float
+    bearing_rad: float | None
+    length_m: float | None
+
+
+@dataclass(frozen=True)
+class Layout:
+    """A set of designs, one per placeable candidate, and the SNR gain each reaches toward its target [dB]."""
+
+    designs: tuple[Design, ...]
+    snr_gain_db: tuple[float, ...]
+    targets: tuple[str, ...]
+
+    @property
+    def total_db(self) -> float:
+        return float(sum(self.snr_gain_db))
+
+
+class Problem:
+    """A scenario's layout problem: the lot, the keep-outs, the placeable candidates and the shared sky."""
+
+    def __init__(self, sc, data: dict, *, base_dir=None):
+        from noisemodels.sphere import upper_hemisphere
+        from snrgain.pipeline import build_sky, nearest_target, target_masks
+
+        if not sc.placeable:
+            raise ValueError("layout: no candidate has a place table (place = { bearing = [...], length = [...] })")
+        if sc.site.lot_m is None:
+            raise ValueError("site.lot: layout needs the lot's outline to place antennas in")
+        self.sc = sc
+        self.data = data
+        self.base_dir = base_dir
+        outline = polygon(sc.site.lot_m, "site.lot")
+        inner = outline.buffer(
+            -EDGE_MARGIN_M
+        )  # a metre inside the boundary: fences, and rounding of the written values
+        self.lot = inner if not inner.is_empty and inner.geom_type == "Polygon" else outline
+        self.keep = [polygon(pts, f"site.keep_out {n!r}") for n, pts in sc.site.keep_out]
+        self.names = [n for n in (a.name for a in sc.candidates) if n in sc.placeable]
+        self.places = [sc.placeable[n] for n in self.names]
+        self.index = [[a.name for a in sc.candidates].index(n) for n in self.names]
+        self.base = [sc.candidates[k] for k in self.index]
+        minx, miny, maxx, maxy = outline.bounds
+        self.extent_m = float(np.hypot(maxx - minx, maxy - miny))
+        for n, pl in zip(self.names, self.places):
+            if pl.length is not None and pl.length[0] > self.extent_m:
+                raise ValueError(
+                    f"candidate {n!r}.place.length: the shortest length, {pl.length[0]:g} m, cannot fit a lot "
+                    f"{self.extent_m:.0f} m across at its widest"
+                )
+        self.grid = upper_hemisphere(16 if sc.nside > 16 else sc.nside)
+        ref_gains = snr.antenna_gains([sc.reference], sc.freq_hz, self.grid, sc.targets)
+        self.skies = build_sky(sc, self.grid, ref_gains)
+        ref_temps = placedmod.apply(sc, [sc.reference], snr.sky_temperatures(ref_gains, self.skies), self.skies)
+        self.masks = target_masks(sc)
+        self.placed = [s for s in sc.noise.local if s.position_m is not None]
+        self.placed_rows = [self.skies.names.index(s.name) for s in self.placed]
+        self.ref_m = sc.reference.params.position or (0.0, 0.0)
+        ground = sc.site.ground
+        self.p_ref = [placedmod.received_power(sc.reference, s, sc.freq_hz, self.ref_m, ground) for s in self.placed]
+        self.t_ref_src = [ref_temps.by_component[c, 0] for c in self.placed_rows]  # (months, hours) each
+        t_chain = np.array([c.temperature_k for c in sc.chains])
+        self.t_chain = [t_chain[1 + k] for k in self.index]
+        ref_noise = ref_temps.total[0] + t_chain[0]
+        self.ref_snr = ref_gains.toward[0][:, None, None] / ref_noise[None]  # (targets, months, hours)
+        self.target = []
+        for pl, ant in zip(self.places, self.base):
+            b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
+            self.target.append(nearest_target(sc, b))
+        self.tx = None
+        if sc.reference.family == "vertical":
+            from shapely.geometry import Point
+
+            self.tx = Point(*self.ref_m)
+        self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
+        self.fixed_wires = [
+            placedmod_footprint(a) for a in sc.candidates if a.name not in self.names and a.family in WIRE_FAMILIES
+        ]
+        self.fixed_wires = [w for w in self.fixed_wires if w is not None]
+        self._sky: dict[tuple, tuple] = {}
+
+    # -- one candidate ----------------------------------------------------------------------------------------
+
+    def antenna(self, i: int, bearing_rad: float, length_m: float | None):
+        """The i-th placeable candidate built with this bearing and length (SI), at no position."""
+        from snrgain.scenario import antenna_from_table
+
+        name = self.names[i]
+        spec = dict(next(c for c in self.data.get("candidate", []) if c.get("name") == name))
+        for key in ("place", "chain", "position"):
+            spec.pop(key, None)
+        if bearing_rad is not None:
+            spec["bearing"] = f"{np.degrees(bearing_rad):.6f} deg"
+        if length_m is not None:
+            spec["length"] = f"{length_m:.6f} m"
+        site_ground = self.data.get("site", {}).get("ground", "moist loam")
+        return antenna_from_table(
+            spec, f"candidate {name!r}", site_ground=site_ground, base_dir=self.base_dir, freq_hz=self.sc.freq_hz
+        )
+
+    def sky_part(self, i: int, bearing_rad: float, length_m: float | None):
+        """(antenna, signal toward its target, noise temperature from everything but the placed sources (months,
+        hours) [K]), cached per design."""
+        key = (
+            i,
+            None if bearing_rad is None else round(float(bearing_rad), 9),
+            None if length_m is None else round(float(length_m), 6),
+        )
+        hit = self._sky.get(key)
+        if hit is None:
+            ant = self.antenna(i, bearing_rad, length_m)
+            g = snr.antenna_gains([ant], self.sc.freq_hz, self.grid, self.sc.targets)
+            t = snr.sky_temperatures(g, self.skies)
+            rows = [r for r in range(len(self.skies.names)) if r not in self.placed_rows]
+            t_np = t.by_component[rows, 0].sum(axis=0) + self.t_chain[i]
+            hit = self._sky[key] = (ant, float(g.toward[0, self.target[i]]), t_np)
+        return hit
+
+    def snr_gain_db(self, d: Design, i: int) -> float:
+        """Nominal SNR gain [dB] over the reference toward candidate i's target, the design standing at its place."""
+        ant, signal, noise = self.sky_part(i, d.bearing_rad, d.length_m)
+        noise = noise.copy()
+        for src, p_ref, t_src in zip(self.placed, self.p_ref, self.t_ref_src):
+            p = placedmod.received_power(
+                ant, src, self.sc.freq_hz, self.ref_m, self.sc.site.ground, at_m=(d.east_m, d.north_m)
+            )
+            noise = noise + t_src * (p / p_ref)
+        t = self.target[i]
+        with np.errstate(divide="ignore"):
+            cells = 10 * np.log10((signal / noise) / self.ref_snr[t])
+        return float(np.mean(cells[self.masks[t]]))
+
+    # -- geometry -----------------------------------------------------------------------------------------------
+
+    def footprint(self, d: Design):
+        from shapely.geometry import LineString, Point
+
+        if d.length_m is None:
+            return Point(d.east_m, d.north_m)
+        end = (d.east_m + d.length_m * np.sin(d.bearing_rad), d.north_m + d.length_m * np.cos(d.bearing_rad))
+        return LineString([(d.east_m, d.north_m), end])
+
+    def violation_m(self, d: Design, others=()) -> float:
+        """How far a design breaks the rules [m]: outside the lot, inside keep-outs, short of the TX clearance,
+        closer than WIRE_SEPARATION_M to other wires (10 m a crossing); 0 when it keeps them all."""
+        shape = self.footprint(d)
+        v = (
+            shape.difference(self.lot).length
+            if shape.length > 0
+            else (0.0 if self.lot.covers(shape) else 1.0 + self.lot.exterior.distance(shape))
+        )
+        for k in self.keep:
+            inter = shape.intersection(k)
+            v += inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
+        if self.tx is not None:
+            v += max(0.0, self.clearance - shape.distance(self.tx))
+        for w in list(self.fixed_wires) + [self.footprint(o) for o in others]:
+            if shape.length > 0 and w.length > 0:
+                v += 10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
+        return float(v)
+
+    # -- search -----------------------------------------------------------------------------------------------
+
+    def grid_designs(self, i: int):
+        """Every (bearing, length) of candidate i's grid, and the feed points on the lot."""
+        pl, ant = self.places[i], self.base[i]
+        if pl.bearing is not None:
+            lo, hi = pl.bearing
+            span = np.mod(hi - lo, 2 * np.pi) or 0.0
+            n = max(2, int(np.ceil(span / BEARING_STEP_RAD)) + 1) if span > 0 else 1
+            bearings = [float(np.mod(lo + span * t, 2 * np.pi)) for t in np.linspace(0, 1, n)]
+        else:
+            bearings = [_bearing_of(ant)]
+        if ant.family in WIRE_FAMILIES:
+            lengths = (
+                [float(x) for x in np.linspace(*pl.length, LENGTHS_PER_RANGE)]
+                if pl.length is not None
+                else [ant.length_m]
+            )
+        else:
+            lengths = [None]
+        return [(b, ln) for b in bearings for ln in lengths], self.lot_points()
+
+    def lot_points(self) -> list[tuple[float, float]]:
+        """Feed points on a square grid over the lot, about POSITIONS_ON_LOT of them inside it."""
+        from shapely.geometry import Point
+
+        minx, miny, maxx, maxy = self.lot.bounds
+        step = max(np.sqrt(self.lot.area / POSITIONS_ON_LOT), 0.5)
+        xs = np.arange(minx + step / 2, maxx, step)
+        ys = np.arange(miny + step / 2, maxy, step)
+        return [(float(x), float(y)) for x in xs for y in ys if self.lot.covers(Point(x, y))]
+
+    def search(self, *, progress=None, keep: int = 3) -> list[Layout]:
+        """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
+        per = []
+        grids = [self.grid_designs(i) for i in range(len(self.names))]
+        total = sum(len(g[0]) for g in grids)
+        done = 0
+        for i, (pairs, points) in enumerate(grids):
+            found = []
+            for b, ln in pairs:
+                for e, n in points:
+                    d = Design(self.names[i], e, n, b, ln)
+                    if self.violation_m(d) == 0.0:
+                        found.append((self.snr_gain_db(d, i), d))
+                done += 1
+                if progress is not None:
+                    progress(done, total)
+            if not found:
+                raise ValueError(
+                    f"candidate {self.names[i]!r}: no place on the lot keeps it inside, out of the keep-out areas "
+                    f"and {self.clearance:.0f} m from the transmitting vertical with these ranges"
+                )
+            found.sort(key=lambda x: -x[0])
+            top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(grids))))
+            per.append(_distinct(found, min(TOP_PER_CANDIDATE, top)))
+        # Every combination of the kept designs, best total first, until enough keep clear of one another.
+        import itertools
+
+        ranked = sorted(
+            itertools.product(*[range(len(p)) for p in per]),
+            key=lambda ix: -sum(per[i][j][0] for i, j in enumerate(ix)),
+        )
+        chosen = []
+        for ix in ranked:
+            designs = [per[i][j][1] for i, j in enumerate(ix)]
+            if all(self.violation_m(d, designs[:j]) == 0.0 for j, d in enumerate(designs)):
+                chosen.append(designs)
+                if len(chosen) == keep:
+                    break
+        if not chosen:
+            raise ValueError(
+                f"layout: the placeable wires cannot all be placed without crossing or coming within "
+                f"{WIRE_SEPARATION_M:g} m of one another; widen the ranges or the lot"
+            )
+        layouts = [self._layout(designs) for designs in chosen]
+        layouts[0] = self.refine(layouts[0])
+        layouts.sort(key=lambda lay: -lay.total_db)
+        return layouts
+
+    def _layout(self, designs) -> Layout:
+        return Layout(
+            tuple(designs),
+            tuple(self.snr_gain_db(d, i) for i, d in enumerate(designs)),
+            tuple(self.sc.targets[self.target[i]].name for i in range(len(designs))),
+        )
+
+    def refine(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
+        """Joint Nelder-Mead from ``start`` over positions, bearings and lengths (within their ranges), with a
+        penalty of 3 dB per metre of violation; the start is kept unless a feasible, better layout is found."""
+        from scipy.optimize import minimize
+
+        x0, bounds = [], []
+        for i, d in enumerate(start.designs):
+            pl = self.places[i]
+            x0 += [d.east_m, d.north_m]
+            bounds += [self.lot.bounds[0::2], self.lot.bounds[1::2]]
+            if pl.bearing is not None:
+                x0.append(d.bearing_rad)
+                lo, hi = pl.bearing
+                bounds.append((lo, lo + (np.mod(hi - lo, 2 * np.pi) or 0.0)))
+            if pl.length is not None and d.length_m is not None:
+                x0.append(d.length_m)
+                bounds.append(tuple(pl.length))
+
+        def designs_of(x):
+            out, j = [], 0
+            for i, d in enumerate(start.designs):
+                pl = self.places[i]
+                e, n = x[j], x[j + 1]
+                j += 2
+                b, ln = d.bearing_rad, d.length_m
+                if pl.bearing is not None:
+                    b = float(np.mod(x[j], 2 * np.pi))
+                    j += 1
+                if pl.length is not None and d.length_m is not None:
+                    ln = float(x[j])
+                    j += 1
+                out.append(replace(d, east_m=float(e), north_m=float(n), bearing_rad=b, length_m=ln))
+            return out
+
+        def cost(x):
+            ds = designs_of(np.clip(x, [b[0] for b in bounds], [b[1] for b in bounds]))
+            v = sum(self.violation_m(d, ds[:j]) for j, d in enumerate(ds))
+            return -sum(self.snr_gain_db(d, i) for i, d in enumerate(ds)) + 3.0 * v
+
+        res = minimize(
+            cost,
+            np.array(x0, dtype=float),
+            method="Nelder-Mead",
+            bounds=bounds,
+            options={"maxfev": max_evaluations, "xatol": 0.5, "fatol": 0.01},
+        )
+        ds = designs_of(np.clip(res.x, [b[0] for b in bounds], [b[1] for b in bounds]))
+        if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
+            cand = self._layout(ds)
+            if cand.total_db > start.total_db:
+                return cand
+        return start
+
+    def random_valid(self, rng, *, tries: int = 20000) -> Layout:
+        """A layout drawn at random among the valid ones (for comparison): uniform positions on the lot's box,
+        bearings and lengths in their ranges, redrawn until every rule holds."""
+        minx, miny, maxx, maxy = self.lot.bounds
+        for _ in range(tries):
+            ds = []
+            for i, ant in enumerate(self.base):
+                pl = self.places[i]
+                b = _bearing_of(ant)
+                if pl.bearing is not None:
+                    lo, hi = pl.bearing
+                    b = float(np.mod(lo + rng.uniform() * (np.mod(hi - lo, 2 * np.pi)), 2 * np.pi))
+                ln = None
+                if ant.family in WIRE_FAMILIES:
+                    ln = float(rng.uniform(*pl.length)) if pl.length is not None else ant.length_m
+                ds.append(Design(self.names[i], float(rng.uniform(minx, maxx)), float(rng.uniform(miny, maxy)), b, ln))
+            if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
+                return self._layout(ds)
+        raise ValueError("layout: no valid random placement found")
+
+
+def plan_data(problem: Problem, layout: Layout) -> dict:
+    """What :func:`snrgain.plots.layout_plan` draws: the lot, keep-outs, the TX vertical and its clearance, the
+    placed sources, the fixed antennas and the layout."""
+    sc = problem.sc
+    fixed = []
+    for a in sc.candidates:
+        if a.name in problem.names:
+            continue
+        shape = placedmod_footprint(a)
+        if shape is not None and hasattr(shape, "coords"):
+            fixed.append((a.name, list(shape.coords)))
+    return {
+        "site": sc.site.name,
+        "lot": list(sc.site.lot_m),
+        "keep_out": [(n, list(p)) for n, p in sc.site.keep_out],
+        "tx": None if problem.tx is None else tuple(problem.ref_m),
+        "clearance_m": problem.clearance,
+        "sources": [(s.name, s.position_m) for s in problem.placed],
+        "fixed": fixed,
+        "layout": as_dict([layout])["layouts"][0],
+    }
+
+
+def placedmod_footprint(antenna):
+    from snrgain.lot import footprint
+
+    return footprint(antenna)
+
+
+def _bearing_of(antenna) -> float | None:
+    b = getattr(antenna.params, "bearing", None)
+    return None if b is None else float(b)
+
+
+def _middle(rng) -> float:
+    lo, hi = rng
+    return float(np.mod(lo + 0.5 * np.mod(hi - lo, 2 * np.pi), 2 * np.pi))
+
+
+def _distinct(found, k):
+    """The k best designs, skipping those within 10 m and 5 deg of one already taken (a layout's neighbours)."""
+    out = []
+    for v, d in found:
+        if all(
+            np.hypot(d.east_m - o.east_m, d.north_m - o.north_m) > 10.0
+            or (d.bearing_rad is not None and abs(d.bearing_rad - o.bearing_rad) > 0.09)
+            for _, o in out
+        ):
+            out.append((v, d))
+        if len(out) == k:
+            break
+    return out
+
+
+def as_dict(layouts: list[Layout]) -> dict:
+    """JSON-ready layouts (SI units in the keys, bearings in degrees)."""
+    return {
+        "layouts": [
+            {
+                "total_snr_gain_db": lay.total_db,
+                "candidates": [
+                    {
+                        "name": d.name,
+                        "position_m": [d.east_m, d.north_m],
+                        "bearing_deg": None if d.bearing_rad is None else float(np.degrees(d.bearing_rad)),
+                        "length_m": d.length_m,
+                        "target": t,
+                        "snr_gain_db": g,
+                    }
+                    for d, g, t in zip(lay.designs, lay.snr_gain_db, lay.targets)
+                ],
+            }
+            for lay in layouts
+        ]
+    }
+
+
+def with_layout(text: str, layout: Layout) -> str:
+    """The scenario text with each placed candidate's position, bearing and length written in (its place table
+    dropped); other lines are kept as written."""
+    import tomllib
+
+    lines = text.splitlines(keepends=True)
+    out = []
+    blocks = _candidate_blocks(lines)
+    by_name = {d.name: d for d in layout.designs}
+    i = 0
+    while i < len(lines):
+        block = next((b for b in blocks if b[0] == i), None)
+        if block is None or block[2] not in by_name:
+            out.append(lines[i])
+            i += 1
+            continue
+        start, end, name = block
+        d = by_name[name]
+        kept = []
+        skip_until_close = False
+        for ln in lines[start:end]:
+            key = ln.split("=", 1)[0].strip() if "=" in ln and not ln.lstrip().startswith("#") else None
+            if skip_until_close:
+                if "]" in ln:
+                    skip_until_close = False
+                continue
+            if key in ("position", "bearing", "length", "place"):
+                value = ln.split("=", 1)[1]
+                if key == "position" and value.count("[") > value.count("]"):
+                    skip_until_close = True
+                continue
+            kept.append(ln)
+        new = [f'position = ["{d.east_m:.1f} m", "{d.north_m:.1f} m"]   # placed by snrgain layout\n']
+        if d.bearing_rad is not None:
+            new.append(f'bearing = "{np.degrees(d.bearing_rad):.1f} deg"\n')
+        if d.length_m is not None:
+            new.append(f'length = "{d.length_m:.1f} m"\n')
+        name_at = next(j for j, ln in enumerate(kept) if ln.split("=", 1)[0].strip() == "name")
+        out.extend(kept[: name_at + 1] + new + kept[name_at + 1 :])
+        i = end
+    result = "".join(out)
+    tomllib.loads(result)  # still a valid file
+    return result
+
+
+def _candidate_blocks(lines) -> list[tuple[int, int, str]]:
+    """(first line, line after the last, name) of every [[candidate]] table."""
+    import re
+
+    heads = [j for j, ln in enumerate(lines) if re.match(r"\s*\[", ln)]
+    out = []
+    for a, b in zip(heads, heads[1:] + [len(lines)]):
+        if lines[a].strip() == "[[candidate]]":
+            name = None
+            for ln in lines[a:b]:
+                m = re.match(r'\s*name\s*=\s*"([^"]*)"', ln)
+                if m:
+                    name = m.group(1)
+                    break
+            out.append((a, b, name))
+    return out

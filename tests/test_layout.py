@@ -1,0 +1,104 @@
+"""snrgain layout: placements on the lot (shapely checks), against random valid placements, and its command."""
+
+import json
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+from shapely.geometry import Polygon
+
+from snrgain.cli.main import cli
+from snrgain.layout import WIRE_SEPARATION_M, Problem
+from snrgain.scenario import load, read_source
+from tests.conftest import REPO
+
+DATA = REPO / "tests" / "data"
+FILES = ["layout-two-beverages.toml", "layout-vertical-and-bog.toml"]
+
+
+def _problem(name):
+    data, label, base = read_source(DATA / name)
+    return Problem(load(data), data, base_dir=base)
+
+
+@pytest.fixture(scope="module", params=FILES)
+def solved(request):
+    pr = _problem(request.param)
+    return pr, pr.search(keep=3)
+
+
+def test_every_layout_keeps_the_rules(solved):
+    pr, layouts = solved
+    sc = pr.sc
+    lot = Polygon(sc.site.lot_m)
+    keep = [Polygon(p) for _, p in sc.site.keep_out]
+    for lay in layouts:
+        shapes = [pr.footprint(d) for d in lay.designs]
+        for d, shape in zip(lay.designs, shapes):
+            assert lot.covers(shape), d
+            assert not any(k.intersects(shape) for k in keep), d
+            assert shape.distance(pr.tx) >= pr.clearance - 1e-6
+        wires = [s for s in shapes if s.length > 0]
+        for i, a in enumerate(wires):
+            for b in wires[i + 1 :]:
+                assert a.distance(b) >= WIRE_SEPARATION_M - 1e-6
+        for d, pl in zip(lay.designs, pr.places):
+            if pl.length is not None:
+                assert pl.length[0] - 1e-6 <= d.length_m <= pl.length[1] + 1e-6
+
+
+def test_the_best_layout_beats_random_valid_placements(solved):
+    pr, layouts = solved
+    rng = np.random.default_rng(7)
+    randoms = [pr.random_valid(rng).total_db for _ in range(25)]
+    assert layouts[0].total_db >= max(randoms)
+    assert layouts[0].total_db >= layouts[-1].total_db
+
+
+def test_layout_is_reproducible():
+    a = _problem(FILES[1]).search(keep=2)
+    b = _problem(FILES[1]).search(keep=2)
+    assert [lay.designs for lay in a] == [lay.designs for lay in b]
+
+
+def test_layout_command_writes_a_scenario_and_a_plan(tmp_path):
+    out, png = tmp_path / "placed.toml", tmp_path / "plan.png"
+    runner = CliRunner()
+    res = runner.invoke(
+        cli, ["layout", str(DATA / FILES[0]), "--write", str(out), "--plot", str(png), "--format", "json"]
+    )
+    assert res.exit_code == 0, res.output
+    best = json.loads(res.stdout)["layouts"][0]
+    assert png.stat().st_size > 10_000
+    data, _, _ = read_source(out)
+    by = {c["name"]: c for c in data["candidate"]}
+    for c in best["candidates"]:
+        assert "place" not in by[c["name"]]
+        assert by[c["name"]]["position"] == [f"{c['position_m'][0]:.1f} m", f"{c['position_m'][1]:.1f} m"]
+    again = runner.invoke(cli, ["layout", str(DATA / FILES[0]), "--write", str(out)])
+    assert again.exit_code == 2 and "--overwrite" in again.stderr
+    rank = runner.invoke(cli, ["rank", str(out)])
+    assert rank.exit_code == 0 and "runs off the lot" not in rank.stderr
+
+
+@pytest.mark.parametrize(
+    "edit, message",
+    [
+        (('length = ["40 m", "80 m"]', 'length = ["200 m", "260 m"]'), "cannot fit a lot"),
+        (("lot = [[0, 0], [120, 0], [120, 60], [60, 110], [0, 110]]", ""), "layout needs the lot"),
+        (("place = {}", 'place = { length = ["1 m", "2 m"] }'), "has no length to vary"),
+        (
+            (
+                "lot = [[0, 0], [120, 0], [120, 60], [60, 110], [0, 110]]",
+                "lot = [[0, 0], [120, 110], [120, 0], [0, 110]]",
+            ),
+            "not a simple polygon",
+        ),
+    ],
+)
+def test_layout_bad_input(edit, message, tmp_path):
+    text = (DATA / FILES[1]).read_text().replace(*edit)
+    p = tmp_path / "s.toml"
+    p.write_text(text)
+    res = CliRunner().invoke(cli, ["layout", str(p)])
+    assert res.exit_code == 2 and message in res.stderr and "Traceback" not in res.output
