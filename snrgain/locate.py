@@ -19,6 +19,16 @@ or a singular Jacobian) is reported as failed, not as an answer.
 When every antenna's pattern is symmetric front to back (small loops, verticals),
 a bearing and its opposite fit equally well: the result says so (180 deg
 ambiguity).  Levels are reported as Fa on P.372's reference monopole.
+
+Each reading carries an uncertainty (``uncertainty``, per reading or for the
+file; default 2 dB, an S-meter read by eye, common practice): a reading the
+fit misses by more than that is named as an outlier, and the fit is not
+called converged without saying so.  Where the file says where the readings
+were taken (``at = [east, north]`` on the site plan) and how far the source
+is (``distance``, e.g. from a walk with a portable receiver), the source is
+written to a scenario as a placed one (``position``, with its Fa
+``measured_at`` the reading point); otherwise by its bearing.  A source of
+the same name already in the scenario is replaced, not doubled.
 """
 
 from __future__ import annotations
@@ -35,6 +45,9 @@ from snrgain.readings import read_toml
 from snrgain.receiver import power_dbm
 
 MAX_BEARING_SIGMA_DEG = 45.0
+DEFAULT_READING_UNCERTAINTY_DB = 2.0
+"""How far a reading may miss the fit before it is called an outlier, unless the file says [dB] (an S-meter read by
+eye: common practice)."""
 
 EXAMPLE = """\
 # Noise readings for snrgain locate: the same noise read on known antennas.
@@ -78,7 +91,7 @@ bearing = 150
 level = "-122.9 dBm"
 [[reading]]
 antenna = "vertical"
-level = "S7"
+level = "-82 dBm"
 """
 
 
@@ -89,6 +102,10 @@ class NoiseReadings:
     freq_hz: float
     bandwidth_hz: float
     readings: list
+    at_m: tuple[float, float] | None = None
+    """Where the readings were taken on the site plan [m east, m north], if the file says."""
+    distances_m: tuple[float, ...] | None = None
+    """How far each source is from there [m], if the file says."""
 
 
 def load_readings(path: str | Path) -> NoiseReadings:
@@ -100,18 +117,22 @@ def load_readings(path: str | Path) -> NoiseReadings:
 
     from snrgain.antennas.base import SpecError, build, item_label
     from snrgain.errors import ReadingsError
-    from snrgain.fields import Bearing, GroundField, PowerDbm, StrictModel, quantity
+    from snrgain.fields import Bearing, GroundField, PlanPoint, PowerDbm, StrictModel, decibels, quantity
     from snrgain.readings import validate
 
     class ReadingEntry(StrictModel):
         antenna: str
         bearing: Bearing | None = None
         level: PowerDbm
+        uncertainty: decibels(0.01, 30.0) | None = None
 
     class ReadingsFile(StrictModel):
         frequency: quantity("frequency", ge=FREQ_RANGE_HZ[0], le=FREQ_RANGE_HZ[1])
         bandwidth: quantity("frequency", ge=10.0, le=100e3)
         ground: GroundField = "moist loam"
+        uncertainty: decibels(0.01, 30.0) = DEFAULT_READING_UNCERTAINTY_DB
+        at: PlanPoint | None = None
+        distance: quantity("length", gt=0.0, le=50e3) | list[quantity("length", gt=0.0, le=50e3)] | None = None
         antenna: dict[str, dict[str, Any]] = Field(min_length=1, max_length=64)
         reading: list[ReadingEntry] = Field(min_length=1, max_length=1000)
 
@@ -146,10 +167,14 @@ def load_readings(path: str | Path) -> NoiseReadings:
             problems.extend(exc.problems)
             continue
         label = r.antenna + (f" {data['reading'][i]['bearing']}" if r.bearing is not None else "")
-        readings.append(Reading(ant, r.level, label))
+        unc = r.uncertainty if r.uncertainty is not None else rf.uncertainty
+        readings.append(Reading(ant, r.level, label, unc))
+    if rf.distance is not None and rf.at is None:
+        problems.append(("distance", "a distance places the source from where the readings were taken: give at too"))
     if problems:
         raise ReadingsError(str(path), sorted(set(problems), key=problems.index))
-    return NoiseReadings(rf.frequency, rf.bandwidth, readings)
+    distances = None if rf.distance is None else tuple(rf.distance if isinstance(rf.distance, list) else [rf.distance])
+    return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances)
 
 
 class LocateError(ValueError):
@@ -162,6 +187,8 @@ class Reading:
     """An Antenna (snrgain.antennas) as oriented for this reading."""
     level_dbm: float
     label: str = ""
+    uncertainty_db: float = DEFAULT_READING_UNCERTAINTY_DB
+    """How far the fit may miss this reading before it is an outlier [dB]."""
 
 
 @dataclass
@@ -184,6 +211,8 @@ class LocateResult:
     predicted_dbm: np.ndarray
     readings_dbm: np.ndarray
     labels: list[str] = field(default_factory=list)
+    outliers: list[tuple[str, float, float]] = field(default_factory=list)
+    """Readings the fit misses by more than their uncertainty: (label, miss [dB], uncertainty [dB])."""
 
 
 def _symmetric_front_back(antenna, freq_hz) -> bool:
@@ -309,7 +338,22 @@ def locate(
             )
         )
     ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
-    if ok:
+    predicted = model_dbm(x)
+    outliers = [
+        (r.label, float(p - lv), float(r.uncertainty_db))
+        for r, p, lv in zip(readings, predicted, levels)
+        if abs(p - lv) > r.uncertainty_db
+    ]
+    if ok and outliers:
+        named = ", ".join(f"{lab} ({miss:+.1f} dB, allowed {u:g})" for lab, miss, u in outliers)
+        count = "1 reading misses" if len(outliers) == 1 else f"{len(outliers)} readings miss"
+        msg = (
+            f"fit found, but {count} it by more than the stated uncertainty: {named}; "
+            "read again, or fit another source (--sources)"
+        )
+        if symmetric:
+            msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
+    elif ok:
         msg = "fit converged"
         if symmetric:
             msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
@@ -320,27 +364,59 @@ def locate(
             "directional antennas pointing different ways"
         )
     background = float(b)  # the background's Fa on the reference monopole: scale of the Fa-0-dB component
-    return LocateResult(ok, msg, fitted, background, rms, model_dbm(x), levels, [r.label for r in readings])
+    return LocateResult(ok, msg, fitted, background, rms, predicted, levels, [r.label for r in readings], outliers)
 
 
-def scenario_blocks(res: LocateResult) -> str:
-    """The fitted sources as [[noise.local]] tables to append to a scenario."""
+def source_names(res: LocateResult, name: str = "located source") -> list[str]:
+    """The names the fitted sources are written under: ``name``, or ``name 1``, ``name 2``... for several."""
+    return [name] if len(res.sources) == 1 else [f"{name} {i + 1}" for i in range(len(res.sources))]
+
+
+def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
+    """The fitted sources as [[noise.local]] tables: placed (position, Fa measured at ``at_m``) where the reading
+    point and a distance are known, else by bearing."""
     blocks = []
-    for i, s in enumerate(res.sources):
+    for i, (s, label) in enumerate(zip(res.sources, source_names(res, name))):
         note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
-        blocks.append(
-            f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
-            f'name = "located source {i + 1}"\n'
-            f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
-        )
+        head = f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
+        dist = None if distances_m is None else distances_m[min(i, len(distances_m) - 1)]
+        if at_m is not None and dist is not None:
+            b = np.radians(s.bearing_deg)
+            e, n = at_m[0] + dist * np.sin(b), at_m[1] + dist * np.cos(b)
+            blocks.append(
+                head + f'name = "{label}"\nposition = ["{e:.1f} m", "{n:.1f} m"]   # {dist:g} m from the readings\n'
+                f'fa = {s.fa_db:.1f}\nmeasured_at = ["{at_m[0]:.1f} m", "{at_m[1]:.1f} m"]\n'
+            )
+        else:
+            blocks.append(
+                head + f'name = "{label}"\n'
+                f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
+            )
     return "".join(blocks)
 
 
-def with_sources(text: str, res: LocateResult) -> str:
-    """Scenario TOML text with the fitted sources appended; refuses a failed fit."""
+def with_sources(text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
+    """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
+    table removed), the others kept; refuses a failed fit."""
+    import re
+    import tomllib
+
     if not res.ok:
         raise LocateError("the fit failed, so no sources were written: " + res.message)
-    return text.rstrip("\n") + "\n" + scenario_blocks(res)
+    names = set(source_names(res, name))
+    lines = text.splitlines(keepends=True)
+    heads = [j for j, ln in enumerate(lines) if re.match(r"\s*\[", ln)] + [len(lines)]
+    drop = set()
+    for a, b in zip(heads, heads[1:]):
+        if re.match(r"\s*\[\[noise\.local\]\]", lines[a]):
+            for ln in lines[a:b]:
+                m = re.match(r'\s*name\s*=\s*"([^"]*)"', ln)
+                if m and m.group(1) in names:
+                    drop.update(range(a, b))
+    kept = "".join(ln for j, ln in enumerate(lines) if j not in drop)
+    out = kept.rstrip("\n") + "\n" + scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name)
+    tomllib.loads(out)  # still one valid file
+    return out
 
 
 def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
@@ -353,6 +429,7 @@ def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
         "background_fa_db": res.background_fa_db,
         "residual_rms_db": res.residual_rms_db,
         "sources": [vars(s) for s in res.sources],
+        "outliers": [{"label": lab, "miss_db": m, "uncertainty_db": u} for lab, m, u in res.outliers],
         "readings": [
             {"label": lab, "level_dbm": lv, "fitted_dbm": p}
             for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)

@@ -1,6 +1,7 @@
 """Calibration from analyser readings, noise-source location, and the small loop they use."""
 
 import json
+import tomllib
 
 import numpy as np
 import pytest
@@ -14,7 +15,7 @@ from snrgain.cli.main import cli
 from snrgain.ground import C_M_PER_S
 from snrgain.locate import LocateError, Reading, locate
 from snrgain.receiver import power_dbm
-from tests.conftest import SCENARIOS
+from tests.conftest import REPO, SCENARIOS
 
 F = 1.83e6
 
@@ -262,3 +263,48 @@ def test_locate_command_writes_plot_and_scenario(tmp_path):
     import tomllib
 
     assert tomllib.loads(text)["noise"]["local"][-1]["fa"] == pytest.approx(data["sources"][0]["fa_db"], abs=0.05)
+
+
+def test_an_outlier_is_named_not_called_converged():
+    # One reading knocked 6 dB off a clean set: the fit still finds the bearing, and says which reading misses it.
+    loops = [from_spec({**LOOP, "bearing": b}) for b in range(0, 180, 20)]
+    clean = _synth(loops, bearing=60.0, noise_db=0.2)
+    res = locate(clean, freq_hz=F, bandwidth_hz=500.0)
+    assert res.ok and res.message.startswith("fit converged") and not res.outliers
+    bad = list(clean)
+    bad[3] = Reading(bad[3].antenna, bad[3].level_dbm + 6.0, "loop 60", 2.0)
+    res = locate(bad, freq_hz=F, bandwidth_hz=500.0)
+    assert "converged" not in res.message and "loop 60" in res.message
+    assert [o[0] for o in res.outliers] == ["loop 60"]
+
+
+def test_locate_writes_a_placed_source_and_replaces_one_of_the_same_name(tmp_path):
+    runner = CliRunner()
+    ex = runner.invoke(cli, ["locate", "--example"]).stdout
+    rf = tmp_path / "r.toml"
+    rf.write_text(ex.replace('ground = "moist loam"', 'ground = "moist loam"\nat = [10, 20]\ndistance = "50 m"'))
+    first, second = tmp_path / "one.toml", tmp_path / "two.toml"
+    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # no files beside it: the copy runs anywhere
+    res = runner.invoke(cli, ["locate", str(rf), "--scenario", str(base), "--write", str(first)])
+    assert res.exit_code == 0, res.output
+    assert "fit converged" in res.stdout
+    data = tomllib.loads(first.read_text())
+    (src,) = [s for s in data["noise"]["local"] if s["name"] == "located source"]
+    assert src["measured_at"] == ["10.0 m", "20.0 m"] and "bearing" not in src
+    e, n = (float(v.split()[0]) for v in src["position"])
+    assert np.hypot(e - 10, n - 20) == pytest.approx(50.0, abs=0.1)
+    # Again on the copy: the source is replaced, not doubled; the copy still runs.
+    res = runner.invoke(cli, ["locate", str(rf), "--scenario", str(first), "--write", str(second)])
+    assert res.exit_code == 0, res.output
+    data = tomllib.loads(second.read_text())
+    assert [s["name"] for s in data["noise"]["local"]].count("located source") == 1
+    assert runner.invoke(cli, ["rank", str(second)]).exit_code == 0
+
+
+def test_a_distance_needs_the_reading_point(tmp_path):
+    runner = CliRunner()
+    ex = runner.invoke(cli, ["locate", "--example"]).stdout
+    rf = tmp_path / "r.toml"
+    rf.write_text(ex.replace('ground = "moist loam"', 'ground = "moist loam"\ndistance = "50 m"'))
+    res = runner.invoke(cli, ["locate", str(rf)])
+    assert res.exit_code == 2 and "give at too" in res.stderr

@@ -34,15 +34,23 @@ from snrgain.cli.options import (
     default=None,
     help="Save a polar plot of the fitted direction (PNG or SVG).",
 )
+@click.option(
+    "--name",
+    default="located source",
+    show_default=True,
+    help="Name of the source written to the scenario (numbered when several); one of that name is replaced.",
+)
 @scenario_copy_options("the fitted sources added as [[noise.local]]")
 @handle_errors
-def locate(readings, example, sources, fit_elevation, elevation, plot, scenario, write_to, overwrite, fmt):
+def locate(readings, example, sources, fit_elevation, elevation, plot, name, scenario, write_to, overwrite, fmt):
     """Fit local noise sources (bearing, level) and a diffuse background to READINGS.
 
     Each reading is the noise level on a known antenna in a known orientation: a small loop turned in
     steps, fixed directional antennas, the vertical.  The fit uses the antennas' modelled patterns;
     the result gives each bearing with its uncertainty (and the 180 deg ambiguity where the antennas
-    cannot tell front from back) and the level as Fa.  See --example for the file.
+    cannot tell front from back) and the level as Fa.  A reading the fit misses by more than its
+    uncertainty (default 2 dB) is named.  With at = [east, north] (where the readings were taken) and
+    distance in the file, the source is written to the scenario at its place.  See --example for the file.
     """
     from snrgain import locate as loc
 
@@ -72,7 +80,11 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, scenario,
         out["plot"] = plot
     if scenario is not None:
         text = Path(scenario).read_text(encoding="utf-8")
-        write_output(write_to, loc.with_sources(text, res), overwrite=overwrite)
+        write_output(
+            write_to,
+            loc.with_sources(text, res, at_m=data.at_m, distances_m=data.distances_m, name=name),
+            overwrite=overwrite,
+        )
         out["written"] = write_to
     if fmt == "json":
         emit_json(out)
