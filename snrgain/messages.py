@@ -28,7 +28,8 @@ def notice_text(n: Notice) -> str:
             "element's signal by its phase) or its delays (positive: the signal comes later)"
         )
     if n.code == "off-lot":
-        return f"{n.antenna}: runs off the lot, up to {v['outside_m']:.0f} m beyond its edge"
+        far = "under 1 m" if v["outside_m"] < 1 else f"up to {v['outside_m']:.0f} m"
+        return f"{n.antenna}: runs off the lot, {far} beyond its edge"
     if n.code == "in-keep-out":
         return f"{n.antenna}: enters the keep-out area {v['area']!r}"
     if n.code == "wires-cross":
