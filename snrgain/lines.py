@@ -169,6 +169,11 @@ def ground_return_term(freq_hz, *, height_m, radius_m, ground: Ground | None) ->
     return complex(1j * omega * MU0_H_PER_M / (2 * np.pi) * np.log(2 * (height_m + p) / radius_m))
 
 
+LINE_MODELS = ("exact", "closed-form")
+"""How a wire in the air over ground is solved: the full-wave modal equation (snrgain.modal, the default) or the
+quasi-TEM closed form below (its starting guess)."""
+
+
 def overhead_wire(
     freq_hz: float,
     *,
@@ -176,14 +181,32 @@ def overhead_wire(
     height_m: float,
     ground: Ground | None,
     wire_conductivity_s_per_m: float = COPPER_S_PER_M,
+    model: str = "exact",
 ) -> LineConstants:
-    """Constants of a single wire in the air over ground (module docstring)."""
+    """Constants of a single wire in the air over ground: the exact mode (snrgain.modal), or the closed form of the
+    module docstring with ``model = "closed-form"``.  Over a perfect ground both are the closed form."""
     _check_geometry(radius_m, height_m)
-    z = wire_internal_impedance(freq_hz, radius_m, wire_conductivity_s_per_m)
-    z += ground_return_term(freq_hz, height_m=height_m, radius_m=radius_m, ground=ground)
+    if model not in LINE_MODELS:
+        raise ValueError(f"line model must be one of {LINE_MODELS}; got {model!r}")
+    z_int = wire_internal_impedance(freq_hz, radius_m, wire_conductivity_s_per_m)
+    z = z_int + ground_return_term(freq_hz, height_m=height_m, radius_m=radius_m, ground=ground)
     omega = 2 * np.pi * freq_hz
     y = 1j * omega * 2 * np.pi * EPS0_F_PER_M / np.arccosh(height_m / radius_m)
-    return from_series_shunt(freq_hz, z, y)
+    closed = from_series_shunt(freq_hz, z, y)
+    if model == "closed-form" or ground is None:
+        return closed
+    from snrgain.modal import wire_over_earth
+
+    _, z_ex, y_ex = wire_over_earth(
+        float(freq_hz),
+        float(height_m),
+        float(radius_m),
+        float(ground.permittivity),
+        float(ground.conductivity_s_per_m),
+        complex(z_int),
+        complex(closed.gamma),
+    )
+    return from_series_shunt(freq_hz, z_ex, y_ex)
 
 
 def insulated_on_ground(

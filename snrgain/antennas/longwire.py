@@ -87,6 +87,9 @@ class WireParams(WireSize, AntennaParams):
     """Measured attenuation [dB/100 m]."""
     z0: float | None = Field(default=None, gt=0.0, le=2000.0)
     ground: GroundField | None = None
+    line_model: Literal["exact", "closed-form"] = "exact"
+    """How a wire in the air is solved: the full-wave modal equation (snrgain.modal) or the quasi-TEM closed form
+    (snrgain.lines; faster, a few per cent off over poor ground at the higher bands).  The BOG uses its own."""
 
     @model_validator(mode="after")
     def _wire(self):
@@ -339,6 +342,7 @@ class LongWire(TransformerFeed, Antenna):
             radius_m=self.params.radius_m,
             height_m=self.wire_height_m(),
             ground=self.ground if ground is None else ground,
+            model=self.params.line_model,
         )
 
     def termination_ohm(self, freq_hz: float) -> float | None:
@@ -499,7 +503,11 @@ class TwoWire(LongWire):
         p = self.params
         a_eq = np.sqrt(p.radius_m * p.spacing)
         return lines.overhead_wire(
-            freq_hz, radius_m=a_eq, height_m=p.height, ground=self.ground if ground is None else ground
+            freq_hz,
+            radius_m=a_eq,
+            height_m=p.height,
+            ground=self.ground if ground is None else ground,
+            model=p.line_model,
         )
 
     def termination_ohm(self, freq_hz):
