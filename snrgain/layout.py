@@ -36,7 +36,7 @@ import numpy as np
 
 from snrgain import placed as placedmod
 from snrgain import snr
-from snrgain.lot import WIRE_FAMILIES, polygon, tx_clearance_m
+from snrgain.lot import WIRE_FAMILIES, footprint, polygon, tx_clearance_m
 
 BEARING_STEP_RAD = float(np.radians(5.0))
 LENGTHS_PER_RANGE = 5
@@ -132,7 +132,7 @@ class Problem:
             self.tx = Point(*self.ref_m)
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
         self.fixed_wires = [
-            placedmod_footprint(a) for a in sc.candidates if a.name not in self.names and a.family in WIRE_FAMILIES
+            footprint(a) for a in sc.candidates if a.name not in self.names and a.family in WIRE_FAMILIES
         ]
         self.fixed_wires = [w for w in self.fixed_wires if w is not None]
         self._sky: dict[tuple, tuple] = {}
@@ -386,7 +386,7 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
     for a in sc.candidates:
         if a.name in problem.names:
             continue
-        shape = placedmod_footprint(a)
+        shape = footprint(a)
         if shape is not None and hasattr(shape, "coords"):
             fixed.append((a.name, list(shape.coords)))
     return {
@@ -399,12 +399,6 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
         "fixed": fixed,
         "layout": as_dict([layout])["layouts"][0],
     }
-
-
-def placedmod_footprint(antenna):
-    from snrgain.lot import footprint
-
-    return footprint(antenna)
 
 
 def _bearing_of(antenna) -> float | None:

@@ -41,7 +41,6 @@ from functools import lru_cache
 
 import numpy as np
 from scipy import integrate
-from scipy.special import k0 as bessel_k0
 
 from snrgain.ground import EPS0_F_PER_M, MU0_H_PER_M
 
@@ -147,4 +146,4 @@ def wire_over_earth(
     raise ValueError("the modal equation's iteration did not settle (a wire too high or a ground out of range)")
 
 
-__all__ = ["earth_integrals", "wire_over_earth", "bessel_k0"]
+__all__ = ["earth_integrals", "wire_over_earth"]
