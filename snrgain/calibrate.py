@@ -373,3 +373,43 @@ def with_ground(text: str, value: str) -> str:
     out = "".join(lines_)
     tomllib.loads(out)  # still valid TOML
     return out
+
+
+def with_measured_line(text: str, name: str, line: lines.LineConstants) -> str:
+    """Scenario TOML text with the candidate ``name``'s measured line constants set (velocity_factor, attenuation
+    and z0, the magnitude of the measured Z0), replacing any it had; only that antenna changes."""
+    lines_ = text.splitlines(keepends=True)
+    heads = [i for i, ln in enumerate(lines_) if re.match(r"\s*\[", ln)] + [len(lines_)]
+    for a, b in zip(heads, heads[1:]):
+        if lines_[a].strip() != "[[candidate]]":
+            continue
+        block = lines_[a:b]
+        name_at = next(
+            (j for j, ln in enumerate(block) if re.match(r'\s*name\s*=\s*"' + re.escape(name) + '"', ln)), None
+        )
+        if name_at is None:
+            continue
+        family = next(
+            (re.match(r'\s*family\s*=\s*"([^"]*)"', ln) for ln in block if re.match(r"\s*family\s*=", ln)), None
+        )
+        if family is None or family.group(1) not in ("beverage", "unterminated", "bog", "two-wire"):
+            raise ValueError(f"--into: candidate {name!r} is not a long wire; measured line constants fit only wires")
+        keep = [ln for ln in block if not re.match(r"\s*(velocity_factor|attenuation|z0)\s*=", ln)]
+        new = [
+            f"velocity_factor = {line.velocity_factor:.4f}   # measured by snrgain calibrate at "
+            f"{line.freq_hz / 1e6:g} MHz\n",
+            f'attenuation = "{line.attenuation_db_per_100m:.3f} dB/100m"\n',
+            f"z0 = {abs(line.z0):.1f}\n",
+        ]
+        j = next(j for j, ln in enumerate(keep) if re.match(r"\s*name\s*=", ln))
+        out = "".join(lines_[:a] + keep[: j + 1] + new + keep[j + 1 :] + lines_[b:])
+        tomllib.loads(out)  # still valid TOML
+        return out
+    raise ValueError(f"--into: the scenario has no candidate named {name!r}")
+
+
+def nearest_constants(constants: list[lines.LineConstants], freq_hz: float) -> lines.LineConstants:
+    """The measured constants taken nearest ``freq_hz``."""
+    if not constants:
+        raise ValueError("--into needs open/short readings: a resonance gives the velocity factor alone")
+    return min(constants, key=lambda ln: abs(np.log(ln.freq_hz / freq_hz)))

@@ -308,3 +308,29 @@ def test_a_distance_needs_the_reading_point(tmp_path):
     rf.write_text(ex.replace('ground = "moist loam"', 'ground = "moist loam"\ndistance = "50 m"'))
     res = runner.invoke(cli, ["locate", str(rf)])
     assert res.exit_code == 2 and "give at too" in res.stderr
+
+
+def test_calibrate_writes_the_measured_line_into_one_antenna(tmp_path):
+    # Only the named wire changes: the site's ground and the other antennas stay as written.
+    runner = CliRunner()
+    rf = tmp_path / "r.toml"
+    rf.write_text(runner.invoke(cli, ["calibrate", "--example"]).stdout)
+    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"
+    out = tmp_path / "o.toml"
+    res = runner.invoke(cli, ["calibrate", str(rf), "--scenario", str(base), "--write", str(out), "--into", "BOG west"])
+    assert res.exit_code == 0, res.output
+    assert "scenario listens at 3.55 MHz" in res.stderr  # the example's readings are at 1.83 MHz
+    before, after = tomllib.loads(base.read_text()), tomllib.loads(out.read_text())
+    assert after["site"] == before["site"]
+    bog = next(c for c in after["candidate"] if c["name"] == "BOG west")
+    assert 0.5 < bog["velocity_factor"] < 1 and bog["z0"] > 0 and bog["attenuation"].endswith("dB/100m")
+    assert next(c for c in after["candidate"] if c["name"] == "short vertical") == next(
+        c for c in before["candidate"] if c["name"] == "short vertical"
+    )
+    assert runner.invoke(cli, ["rank", str(out)]).exit_code == 0
+    for into, message in (("short vertical", "not a long wire"), ("nowhere", "no candidate named")):
+        bad = runner.invoke(
+            cli, ["calibrate", str(rf), "--scenario", str(base), "--write", str(tmp_path / "x.toml"), "--into", into]
+        )
+        assert bad.exit_code == 2 and message in bad.stderr
+    assert runner.invoke(cli, ["calibrate", str(rf), "--into", "BOG west"]).exit_code == 2

@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import click
+import numpy as np
 
 from snrgain.cli.options import emit_json, handle_errors, readings_preamble, scenario_copy_options, write_output
 
@@ -26,9 +27,18 @@ from snrgain.cli.options import emit_json, handle_errors, readings_preamble, sce
     default=None,
     help="Fix the soil's relative permittivity and fit only its conductivity.",
 )
+@click.option(
+    "--into",
+    "into",
+    default=None,
+    metavar="NAME",
+    help="With --scenario: write the measured velocity factor, attenuation and Z0 into the candidate NAME "
+    "(the readings nearest the scenario's frequency) instead of the fitted ground into [site]; only that "
+    "antenna changes.",
+)
 @scenario_copy_options("the fitted ground written into its [site] section")
 @handle_errors
-def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, overwrite, fmt):
+def calibrate(readings, example, expected_vf, permittivity, into, scenario, write_to, overwrite, fmt):
     """Turn analyser READINGS of a laid wire into its line constants and the soil's constants.
 
     Open/short readings give Z0 = sqrt(Zoc Zsc) and tanh(gamma L) = sqrt(Zsc/Zoc): velocity factor,
@@ -49,9 +59,27 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
     except cal.ReadingError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     out = res.as_dict()
+    if into is not None and scenario is None:
+        raise click.UsageError("--into goes with --scenario and --write")
     if scenario is not None:
         text = Path(scenario).read_text(encoding="utf-8")
-        write_output(write_to, cal.with_ground(text, res.fit.scenario_value()), overwrite=overwrite)
+        if into is None:
+            new = cal.with_ground(text, res.fit.scenario_value())
+        else:
+            from snrgain.scenario import read_source
+
+            data, _, _ = read_source(Path(scenario))
+            freq = read_frequency(data)
+            used = cal.nearest_constants(res.constants, freq)
+            new = cal.with_measured_line(text, into, used)
+            out["written_into"] = into
+            if abs(np.log(used.freq_hz / freq)) > np.log(1.2):
+                click.echo(
+                    f"warning: the readings were taken at {used.freq_hz / 1e6:g} MHz and the scenario listens at "
+                    f"{freq / 1e6:g} MHz; a wire's constants change with frequency: measure near the band",
+                    err=True,
+                )
+        write_output(write_to, new, overwrite=overwrite)
         out["written"] = write_to
     if fmt == "json":
         emit_json(out)
@@ -86,5 +114,16 @@ def calibrate(readings, example, expected_vf, permittivity, scenario, write_to, 
             f"transformer turns ratio {res.suggested_turns_ratio:.2f} to {ant.params.coax} ohm coax"
         )
     if scenario is not None:
-        lines_out.append(f"  wrote {write_to}")
+        what = f"the measured line into {into!r}" if into else "the fitted ground into [site]"
+        lines_out.append(f"  wrote {write_to} ({what})")
     click.echo("\n".join(lines_out))
+
+
+def read_frequency(data: dict) -> float:
+    """The scenario's band frequency [Hz], read with its units."""
+    from snrgain.units import parse_quantity
+
+    try:
+        return float(parse_quantity(data["band"]["frequency"], "frequency"))
+    except (KeyError, TypeError) as exc:
+        raise ValueError("--into: the scenario has no [band] frequency") from exc
