@@ -29,6 +29,7 @@ from pydantic import BeforeValidator
 from scipy.optimize import least_squares
 
 from snrgain import lines
+from snrgain.antennas.base import variant
 from snrgain.constants import FREQ_RANGE_HZ, WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S, Ground
 from snrgain.readings import read_toml
@@ -153,12 +154,14 @@ def fit_ground(
     permittivity: float | None = None,
     vf_sigma: float = DEFAULT_VF_UNCERTAINTY,
     attenuation_rel_sigma: float = DEFAULT_ATTENUATION_UNCERTAINTY,
+    coarse_line=None,
 ) -> GroundFit:
     """Fit ground constants so that ``model_line(freq_hz, ground)`` reproduces measured constants.
 
     ``measurements``: dicts with ``freq_hz``, ``velocity_factor`` and optionally
     ``attenuation_db_per_100m``.  With ``permittivity`` given, only the
-    conductivity is fitted.  Several starts guard against local minima.
+    conductivity is fitted.  Several starts guard against local minima; with ``coarse_line`` (a fast model, the
+    closed form) the starts run on it and ``model_line`` (the exact mode) refines the best.
     """
     n_obs = sum(1 + ("attenuation_db_per_100m" in m and m["attenuation_db_per_100m"] is not None) for m in measurements)
     n_unknown = 1 if permittivity is not None else 2
@@ -169,13 +172,13 @@ def fit_ground(
             "soil's permittivity"
         )
 
-    def residuals(p):
+    def residuals(p, line=model_line):
         sigma = 10 ** p[0]
         eps = permittivity if permittivity is not None else p[1]
         g = Ground(sigma, float(np.clip(eps, 1.0, 100.0)))
         res = []
         for m in measurements:
-            ln = model_line(m["freq_hz"], g)
+            ln = line(m["freq_hz"], g)
             res.append((ln.velocity_factor - m["velocity_factor"]) / vf_sigma)
             a = m.get("attenuation_db_per_100m")
             if a is not None:
@@ -188,9 +191,12 @@ def fit_ground(
         x0 = [s0] if permittivity is not None else [s0, e0]
         lb = [-5.0] if permittivity is not None else [-5.0, 1.0]
         ub = [1.0] if permittivity is not None else [1.0, 100.0]
-        r = least_squares(residuals, x0, bounds=(lb, ub), x_scale="jac")
+        kw = {} if coarse_line is None else {"kwargs": {"line": coarse_line}}
+        r = least_squares(residuals, x0, bounds=(lb, ub), x_scale="jac", **kw)
         if best is None or r.cost < best.cost:
             best = r
+    if coarse_line is not None:
+        best = least_squares(residuals, best.x, bounds=(lb, ub), x_scale="jac", max_nfev=40)
     jac = best.jac
     try:
         cov = np.linalg.inv(jac.T @ jac)
@@ -347,7 +353,10 @@ def calibrate(
         vf = vf_from_quarter_wave(ant.length_m, f)
         resonances.append({"freq_hz": f, "velocity_factor": vf})
         measured.append({"freq_hz": f, "velocity_factor": vf})
-    fit = fit_ground(ant.computed_line, measured, permittivity=permittivity)
+    coarse = None
+    if getattr(ant.params, "line_model", "closed-form") == "exact":
+        coarse = variant(ant, line_model="closed-form").computed_line
+    fit = fit_ground(ant.computed_line, measured, permittivity=permittivity, coarse_line=coarse)
     term = turns = None
     if constants:
         z0 = abs(constants[0].z0)

@@ -197,7 +197,7 @@ def overhead_wire(
         return closed
     from snrgain.modal import wire_over_earth
 
-    _, z_ex, y_ex = wire_over_earth(
+    mode = wire_over_earth(
         float(freq_hz),
         float(height_m),
         float(radius_m),
@@ -206,7 +206,7 @@ def overhead_wire(
         complex(z_int),
         complex(closed.gamma),
     )
-    return from_series_shunt(freq_hz, z_ex, y_ex)
+    return closed if mode is None else from_series_shunt(freq_hz, mode[1], mode[2])
 
 
 def insulated_on_ground(
@@ -219,8 +219,14 @@ def insulated_on_ground(
     height_m: float | None = None,
     depth_m: float = 0.0,
     wire_conductivity_s_per_m: float = COPPER_S_PER_M,
+    model: str = "exact",
 ) -> LineConstants:
-    """Constants of an insulated wire lying on (height_m) or buried in (depth_m) the soil (module docstring)."""
+    """Constants of an insulated wire lying on (height_m, its axis above the soil; default the insulation radius:
+    resting on it) or buried in (depth_m) the soil.  On the surface, ``model = "exact"`` (the default) solves the
+    full-wave mode with the insulation as a coaxial layer (snrgain.modal); "closed-form", and every buried wire,
+    take the shunt-path model of the module docstring."""
+    if model not in LINE_MODELS:
+        raise ValueError(f"line model must be one of {LINE_MODELS}; got {model!r}")
     if ground is None:
         raise ValueError("a wire on the ground needs a real ground (conductivity and permittivity), not 'perfect'")
     a, b = radius_m, insulation_radius_m
@@ -245,7 +251,23 @@ def insulated_on_ground(
         y_gap = 1j * omega * 2 * np.pi * EPS0_F_PER_M / np.arccosh(max(h / b, 1.0 + 1e-9))
         y_soil = np.pi * sigma_c / np.log(1.12 / (gamma_e * np.sqrt(b * h)))
         inv = 1 / y_ins + 1 / y_gap + 1 / y_soil
-    return from_series_shunt(freq_hz, z, 1 / inv)
+    closed = from_series_shunt(freq_hz, z, 1 / inv)
+    if buried or model == "closed-form":
+        return closed
+    from snrgain.modal import wire_over_earth
+
+    mode = wire_over_earth(
+        float(freq_hz),
+        float(h),
+        float(a),
+        float(ground.permittivity),
+        float(ground.conductivity_s_per_m),
+        complex(wire_internal_impedance(freq_hz, a, wire_conductivity_s_per_m)),
+        complex(closed.gamma),
+        float(b),
+        float(insulation_permittivity),
+    )
+    return closed if mode is None else from_series_shunt(freq_hz, mode[1], mode[2])
 
 
 def _check_geometry(radius_m, height_m):

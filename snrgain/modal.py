@@ -28,6 +28,10 @@ iteration gamma <- sqrt(Z'(gamma) Y'(gamma)) from the closed-form line
 constants (snrgain.lines): the integrals change slowly with gamma, so a few
 steps converge to 1e-10.
 
+Where the iteration does not settle (a nearly lossless ground, where the
+mode leaks into the earth), :func:`wire_over_earth` returns None and
+snrgain.lines keeps the closed form.
+
 The quasi-TEM closed form of snrgain.lines (Deri's complex-depth
 impedance, the image capacitance) is what this reduces to when the earth's
 admittance term Q is dropped and P is approximated: close over good ground,
@@ -71,23 +75,26 @@ def _gauss(f, a: float, b: float, n: int = 160) -> complex:
 
 
 def earth_integrals(
-    gamma: complex, freq_hz: float, height_m: float, n2: complex, *, adaptive: bool = False
+    gamma: complex, freq_hz: float, height_m: float, n2: complex, *, offset_m: float = 0.0, adaptive: bool = False
 ) -> tuple[complex, complex]:
-    """(P, Q) of the module docstring for a propagation constant ``gamma`` [1/m]: Gauss-Legendre on pieces split
-    where the integrands change scale (the wire's 1 / 2h, the earth's |k1|, a small kappa0); ``adaptive`` uses
-    scipy's adaptive quadrature instead (the tests check one against the other)."""
+    """(P, Q) of the module docstring for a propagation constant ``gamma`` [1/m], the field taken ``offset_m``
+    to the side of the axis (the wire's outer surface; cos(lambda offset) in the integrands): Gauss-Legendre on
+    pieces split where the integrands change scale (the wire's 1 / 2h, the earth's |k1|, a small kappa0);
+    ``adaptive`` uses scipy's adaptive quadrature instead (the tests check one against the other)."""
     k0 = 2 * np.pi * freq_hz / C_M_PER_S
     kap0 = -(gamma**2 + k0**2)
     kap1 = -(gamma**2 + n2 * k0**2)
     h = height_m
 
+    rho = offset_m
+
     def p_int(lam):
         u0, u1 = _sqrt_re(lam * lam + kap0), _sqrt_re(lam * lam + kap1)
-        return np.exp(-2 * u0 * h) / (u0 + u1)
+        return np.exp(-2 * u0 * h) * np.cos(lam * rho) / (u0 + u1)
 
     def q_int(lam):
         u0, u1 = _sqrt_re(lam * lam + kap0), _sqrt_re(lam * lam + kap1)
-        return u0 * (u0 - u1) * np.exp(-2 * u0 * h) / (n2 * u0 + u1)
+        return u0 * (u0 - u1) * np.exp(-2 * u0 * h) * np.cos(lam * rho) / (n2 * u0 + u1)
 
     # The integrands fall as exp(-2 lambda h): integrate to 20 / h.  Break points: the scale of kappa0 (where u0
     # turns from kappa0 to lambda), the earth's |k1|, and 1 / 2h.
@@ -111,12 +118,14 @@ def earth_integrals(
 
 
 def _image_term(gamma, k0, radius_m, height_m) -> complex:
+    """K0(kappa0 r) - K0(kappa0 r'), r the radius the field is taken at, r' its distance from the image."""
     kap = _sqrt_re(-(gamma**2 + k0**2))
-    if abs(kap) * 2 * height_m < 1e-8:
-        return complex(np.log(2 * height_m / radius_m))
+    far = np.hypot(radius_m, 2 * height_m)
+    if abs(kap) * far < 1e-8:
+        return complex(np.log(far / radius_m))
     from scipy.special import kv
 
-    return complex(kv(0, kap * radius_m) - kv(0, kap * 2 * height_m))
+    return complex(kv(0, kap * radius_m) - kv(0, kap * far))
 
 
 @lru_cache(maxsize=256)
@@ -128,22 +137,38 @@ def wire_over_earth(
     conductivity_s_per_m: float,
     z_internal: complex,
     gamma_start: complex,
-) -> tuple[complex, complex, complex]:
-    """(gamma [1/m], Z' [ohm/m], Y' [S/m]) of the exact mode (module docstring), cached by its arguments."""
+    insulation_radius_m: float | None = None,
+    insulation_permittivity: float = 1.0,
+) -> tuple[complex, complex, complex] | None:
+    """(gamma [1/m], Z' [ohm/m], Y' [S/m]) of the exact mode (module docstring), cached by its arguments; None
+    where the iteration does not settle: over a nearly lossless ground (loss tangent below about 0.01) the mode
+    leaks into the ground and the two sides of its branch cut trade places at each step.
+
+    An insulated wire (conductor radius a inside insulation of outer radius b, relative permittivity eps_i):
+    the fields outside are taken at the insulation's surface (offset b in the integrals, L from b), and the
+    insulation adds the coaxial layer's terms, ln(b/a) / eps_i to the electric (admittance) part and ln(b/a)
+    to the magnetic (impedance) part: the thin-insulation form of R. W. P. King, T. T. Wu and L.-C. Shen,
+    "The horizontal wire antenna over a conducting or dielectric half space" (Radio Science 9, 1974) and of the
+    insulated-antenna theory (King, Smith, Owens and Wu, "Antennas in Matter", MIT Press 1981), cited from
+    memory; a wire resting on the soil has its axis at height b."""
     omega = 2 * np.pi * freq_hz
     k0 = omega / C_M_PER_S
     n2 = complex(permittivity, -conductivity_s_per_m / (omega * EPS0_F_PER_M))
+    b = radius_m if insulation_radius_m is None else insulation_radius_m
+    layer = 0.0 if insulation_radius_m is None else float(np.log(b / radius_m))
     gamma = complex(gamma_start)
-    for _ in range(60):
-        p, q = earth_integrals(gamma, freq_hz, height_m, n2)
-        lam = _image_term(gamma, k0, radius_m, height_m)
-        z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + 2 * p)
-        y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + q)
-        new = complex(_sqrt_re(z * y))
+    for step in range(80):
+        p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=b if b > radius_m else 0.0)
+        lam = _image_term(gamma, k0, b, height_m)
+        z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + layer + 2 * p)
+        y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + layer / insulation_permittivity + q)
+        new = complex(np.sqrt(z * y + 0j))
+        if new.imag < 0:  # the forward wave: beta > 0
+            new = -new
         if abs(new - gamma) < 1e-12 * abs(gamma):
             return new, complex(z), complex(y)
-        gamma = new
-    raise ValueError("the modal equation's iteration did not settle (a wire too high or a ground out of range)")
+        gamma = new if step < 20 else 0.5 * (gamma + new)  # damped after 20 steps
+    return None
 
 
 __all__ = ["earth_integrals", "wire_over_earth"]
