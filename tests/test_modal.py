@@ -115,7 +115,7 @@ def test_bog_on_soil_against_the_builders_range():
     # 1.6 mm wire in 0.8 mm PVC (eps_r 3.5) over moist loam (5 mS/m, 13).  Builders report velocity factors of
     # 0.65-0.77 and terminate at 160-300 ohm (common practice).  The physics (the exact mode) says otherwise for
     # a wire resting on bare soil: VF 0.36-0.40 with |Z0| 190-205 ohm; the builders' velocity factors need the
-    # axis 3-10 cm up (grass, litter), where |Z0| is 355-400 ohm.  README states the difference.
+    # axis 3-15 cm up (grass, litter), where |Z0| is 355-425 ohm.  README states the difference.
     on = [_bog("on soil", f=f) for f in (1.83e6, 3.6e6)]
     assert [round(ln.velocity_factor, 2) for ln in on] == [0.36, 0.40]
     assert all(160 < abs(ln.z0) < 300 for ln in on) and all(ln.velocity_factor < 0.65 for ln in on)
