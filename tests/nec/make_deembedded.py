@@ -1,0 +1,119 @@
+"""NEC-2 references for the long wires with NEC's wire-to-ground junction taken out (run by hand; needs nec2c).
+
+    python tests/nec/make_deembedded.py
+
+Where a wire meets a lossy Sommerfeld ground NEC-2 adds a resistance of its own that grows as the bottom segment
+shortens (a point contact with a conducting half-space has no finite resistance; NEC's depends on its
+segmentation).  For each stored long-wire case (reference.json) a stub deck measures it: one vertical wire of the
+case's down-lead (same radius, height and segments) standing on the same ground, fed at its bottom segment; its
+input resistance, less the stub's radiation resistance (below 0.1 ohm at these heights, neglected), is the
+junction's.  The case's deck is then run again with that resistance subtracted at both junctions by load cards
+(negative series resistances; the far end's combined with its termination), so the model can be given the true
+rod resistance, zero for NEC's ideal connections, instead of a fitted one.  Results go to deembedded.json with
+the decks under cases/ (suffix -deemb).
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import sys
+import tempfile
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE))
+
+from necdeck import beverage_deck, metrics, parse_output, run_nec2c  # noqa: E402
+
+C_MHZ_M = 299.792458
+
+
+def stub_deck(*, freq_mhz, height_m, segments, radius_m, permittivity, conductivity_s_per_m) -> str:
+    return (
+        "\n".join(
+            [
+                "CM junction stub (snrgain de-embedding)",
+                "CE",
+                f"GW 1 {segments} 0 0 0 0 0 {height_m:g} {radius_m:g}",
+                "GE 1",
+                f"GN 2 0 0 0 {permittivity:g} {conductivity_s_per_m:g}",
+                f"FR 0 1 0 0 {freq_mhz:g} 0",
+                "EX 0 1 1 0 1 0",
+                "XQ",
+                "EN",
+            ]
+        )
+        + "\n"
+    )
+
+
+def main():
+    ref = json.loads((HERE / "reference.json").read_text())
+    out = {"engine": "nec2c (NEC-2 in C, Debian package nec2c)", "elevation_deg": 20.0, "cases": []}
+    with tempfile.TemporaryDirectory() as tmp:
+        work = Path(tmp)
+        for case in ref["cases"] + ref["sweep"]:
+            deck = beverage_deck(
+                freq_mhz=case["freq_mhz"],
+                length_m=case["length_m"],
+                height_m=case["height_m"],
+                radius_m=case["radius_m"],
+                permittivity=case["permittivity"],
+                conductivity_s_per_m=case["conductivity_s_per_m"],
+                termination_ohm=case["termination_ohm"],
+            )
+            nl = int(re.search(r"^GW 1 (\d+)", deck, re.M).group(1))
+            stub = stub_deck(
+                freq_mhz=case["freq_mhz"],
+                height_m=case["height_m"],
+                segments=nl,
+                radius_m=case["radius_m"],
+                permittivity=case["permittivity"],
+                conductivity_s_per_m=case["conductivity_s_per_m"],
+            )
+            text = run_nec2c(stub, work, "stub")
+            m = re.search(
+                r"ANTENNA INPUT PARAMETERS.*?\n.*?\n.*?\n\s*\d+\s+\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(\S+)",
+                text,
+                re.S,
+            )
+            r_j = float(m.group(1))
+            deck_d = deck.replace(
+                f"LD 0 3 {nl} {nl} {case['termination_ohm']:.3f} 0 0",
+                f"LD 0 3 {nl} {nl} {case['termination_ohm'] - r_j:.3f} 0 0\nLD 0 1 1 1 {-r_j:.3f} 0 0",
+            )
+            assert deck_d != deck
+            name = f"{case['name']}-deemb"
+            (HERE / "cases" / f"{name}.nec").write_text(deck_d)
+            res = parse_output(run_nec2c(deck_d, work, name))
+            met = metrics(res["theta_deg"], res["phi_deg"], res["gain_dbi"])
+            z = res["feed_impedance_ohm"]
+            out["cases"].append(
+                {
+                    **{
+                        k: case[k]
+                        for k in (
+                            "freq_mhz",
+                            "length_m",
+                            "height_m",
+                            "radius_m",
+                            "permittivity",
+                            "conductivity_s_per_m",
+                            "termination_ohm",
+                        )
+                    },
+                    "name": name,
+                    "deck": f"cases/{name}.nec",
+                    "junction_ohm": round(r_j, 2),
+                    "lead_segments": nl,
+                    **{k: round(float(v), 3) for k, v in met.items()},
+                    "feed_impedance_ohm": [round(z.real, 2), round(z.imag, 2)],
+                }
+            )
+            print(out["cases"][-1])
+    (HERE / "deembedded.json").write_text(json.dumps(out, indent=1) + "\n")
+
+
+if __name__ == "__main__":
+    main()
