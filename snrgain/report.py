@@ -47,8 +47,11 @@ MODELS = [
     (
         "Antennas",
         "Vertical: sinusoidal current with Fresnel ground reflection and a radial-loss resistance. "
-        "Long wires: transmission-line model with the Deri et al. (1981) ground-return impedance, checked against "
-        "NEC-2. Small loop: magnetic dipole over ground (Kraus). Tables: interpolated as given.",
+        "Long wires: transmission-line model on the exact mode of a wire over lossy ground (Sommerfeld's potentials "
+        "in Wait's 1972 line-source form; the closed form of Deri et al. 1981 as an option), checked against NEC-2. "
+        "Arrays: complex responses combined with their weights; coupled verticals by the induced-EMF method; "
+        "auto steering by maximum-SNR weights (Van Trees 2002). Small loop: magnetic dipole over ground (Kraus). "
+        "Tables: interpolated as given.",
     ),
     (
         "Receiving chain",
@@ -57,7 +60,9 @@ MODELS = [
     ),
     (
         "Limits",
-        "Far-field plane waves (local sources treated as distant); low wires only (up to 0.1 wavelength); "
+        "Far-field plane waves (a source known by its bearing treated as distant; a placed source's field falls with "
+        "distance by Norton's ground wave, each antenna reading it through its pattern); low wires only (up to 0.1 "
+        "wavelength); "
         "the storm-direction model is coarse; P.372's Section 8 variant for deviations above 12 dB is not implemented; "
         "thermal noise of losses neglected.",
     ),
