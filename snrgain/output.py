@@ -235,6 +235,18 @@ def target_table(r: Results, i: int):
     return Group(table, verdict, Text(""))
 
 
+def also_build(r: Results, k: int) -> str:
+    """For the plan's k-th antenna: " (build X for it)" when it is a combination whose other part is neither the
+    reference nor built earlier in the plan, else ""."""
+    p = r.plan
+    name = p.antennas[k]
+    ant = next((a for a in r.candidates if a.name == name), None)
+    if ant is None or ant.family != "combination":
+        return ""
+    needs = [x for x in ant.parameters.get("antennas", []) if x != r.reference.name and x not in p.antennas[:k]]
+    return f" (build {' and '.join(needs)} for it)" if needs else ""
+
+
 def plan_text(r: Results):
     """The station plan in words: what to build, in order, the dB each adds, and who serves which target when."""
     from rich.text import Text

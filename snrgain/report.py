@@ -245,7 +245,12 @@ def _plan(r) -> str:
         f"<p>Build {len(p.antennas)}, worth <b>{p.gain_db:+.1f} dB</b> over {_e(r.reference.name)} alone "
         "(the weighted mean over targets of the best antenna's SNR gain at each hour), in this order:</p><ol>"
     ]
-    out += [f"<li>{_e(n)}: adds {a:+.1f} dB</li>" for n, a in zip(p.antennas, p.added_db)]
+    from snrgain.output import also_build
+
+    out += [
+        f"<li>{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
+        for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
+    ]
     out.append(
         "</ol><table><tr><th class='name'>target</th><th class='name'>served by</th>"
         "<th class='name'>UTC hours</th><th>SNR gain (dB)</th></tr>"

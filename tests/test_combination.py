@@ -81,3 +81,15 @@ def test_combination_bad_input(antennas, message, tmp_path):
     p.write_text(text)
     res = CliRunner().invoke(cli, ["rank", str(p)])
     assert res.exit_code == 2 and message.split("'")[0] in res.stderr and "Traceback" not in res.output
+
+
+def test_the_plan_says_what_else_to_build(tmp_path):
+    from snrgain.output import also_build
+
+    r = snrgain.evaluate(_scenario(_combo("auto")))
+    assert r.plan.antennas[0] == "auto"
+    assert also_build(r, 0) == " (build sense for it)"
+    p = tmp_path / "s.toml"
+    p.write_text(_scenario(_combo("auto")))
+    res = CliRunner().invoke(cli, ["rank", str(p)])
+    assert "1. auto: adds" in res.stdout and "(build sense for it)" in res.stdout
