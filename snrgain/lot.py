@@ -12,7 +12,8 @@ Checks, each a :class:`snrgain.results.Notice` (a warning, not an error: a
 builder may know better): an antenna leaving the lot, one entering a
 keep-out area (the house, a road, the transmitting vertical's radial
 field), two wires crossing, a receiving antenna within ``tx_clearance`` of
-the transmitting vertical (the reference, when it is a vertical), and a
+the transmitting vertical (the reference, when it is a vertical, at its
+position or else at the plan's origin when the site has a lot), and a
 placed noise source inside a keep-out area (a house is where sources often
 are: it is said, not refused).  A lot or keep-out outline that crosses
 itself is an input error.
@@ -106,7 +107,9 @@ def site_notices(sc) -> list[Notice]:
             if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
     ref = sc.reference
-    if ref.family == "vertical":
+    # Where the TX vertical stands: its position, or the plan's origin when the site has a lot; with neither there
+    # is no plan to place it on (element positions of an array may then be relative), so nothing is said.
+    if ref.family == "vertical" and (ref.params.position is not None or site.lot_m is not None):
         tx = Point(*(ref.params.position or (0.0, 0.0)))
         clear = tx_clearance_m(site, sc.freq_hz)
         for ant, shape in shapes:

@@ -6,6 +6,7 @@ from click.testing import CliRunner
 import snrgain
 from snrgain.cli.main import cli
 from snrgain.errors import ScenarioError
+from tests.conftest import SCENARIOS
 
 BASE = """
 [site]
@@ -105,3 +106,10 @@ def test_outlines_that_cannot_be(bad, message, tmp_path):
     p.write_text(text)
     res = CliRunner().invoke(cli, ["check", str(p)])
     assert res.exit_code == 2 and "Traceback" not in res.output
+
+
+def test_no_plan_no_clearance_warning():
+    # Without a lot and without the vertical's position there is no plan: an array's element positions may be
+    # relative to itself, so its element at [0, 0] is not "at the vertical" (the Marrow Fen demo's case).
+    r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
+    assert not any(n.code == "near-tx-vertical" for n in r.notices)
