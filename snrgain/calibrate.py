@@ -387,34 +387,20 @@ def with_ground(text: str, value: str) -> str:
 def with_measured_line(text: str, name: str, line: lines.LineConstants) -> str:
     """Scenario TOML text with the candidate ``name``'s measured line constants set (velocity_factor, attenuation
     and z0, the magnitude of the measured Z0), replacing any it had; only that antenna changes."""
-    lines_ = text.splitlines(keepends=True)
-    heads = [i for i, ln in enumerate(lines_) if re.match(r"\s*\[", ln)] + [len(lines_)]
-    for a, b in zip(heads, heads[1:]):
-        if lines_[a].strip() != "[[candidate]]":
-            continue
-        block = lines_[a:b]
-        name_at = next(
-            (j for j, ln in enumerate(block) if re.match(r'\s*name\s*=\s*"' + re.escape(name) + '"', ln)), None
-        )
-        if name_at is None:
-            continue
-        family = next(
-            (re.match(r'\s*family\s*=\s*"([^"]*)"', ln) for ln in block if re.match(r"\s*family\s*=", ln)), None
-        )
-        if family is None or family.group(1) not in ("beverage", "unterminated", "bog", "two-wire"):
-            raise ValueError(f"--into: candidate {name!r} is not a long wire; measured line constants fit only wires")
-        keep = [ln for ln in block if not re.match(r"\s*(velocity_factor|attenuation|z0)\s*=", ln)]
-        new = [
-            f"velocity_factor = {line.velocity_factor:.4f}   # measured by snrgain calibrate at "
-            f"{line.freq_hz / 1e6:g} MHz\n",
-            f'attenuation = "{line.attenuation_db_per_100m:.3f} dB/100m"\n',
-            f"z0 = {abs(line.z0):.1f}\n",
-        ]
-        j = next(j for j, ln in enumerate(keep) if re.match(r"\s*name\s*=", ln))
-        out = "".join(lines_[:a] + keep[: j + 1] + new + keep[j + 1 :] + lines_[b:])
-        tomllib.loads(out)  # still valid TOML
-        return out
-    raise ValueError(f"--into: the scenario has no candidate named {name!r}")
+    from snrgain.tomltext import rewrite_table
+
+    table = next((c for c in tomllib.loads(text).get("candidate", []) if c.get("name") == name), None)
+    if table is None:
+        raise ValueError(f"--into: the scenario has no candidate named {name!r}")
+    if table.get("family") not in WIRE_FAMILIES:
+        raise ValueError(f"--into: candidate {name!r} is not a long wire; measured line constants fit only wires")
+    add = [
+        f"velocity_factor = {line.velocity_factor:.4f}   # measured by snrgain calibrate at "
+        f"{line.freq_hz / 1e6:g} MHz\n",
+        f'attenuation = "{line.attenuation_db_per_100m:.3f} dB/100m"\n',
+        f"z0 = {abs(line.z0):.1f}\n",
+    ]
+    return rewrite_table(text, "[[candidate]]", name, drop={"velocity_factor", "attenuation", "z0"}, add=add)
 
 
 def nearest_constants(constants: list[lines.LineConstants], freq_hz: float) -> lines.LineConstants:

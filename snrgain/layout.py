@@ -36,7 +36,8 @@ import numpy as np
 
 from snrgain import placed as placedmod
 from snrgain import snr
-from snrgain.lot import WIRE_FAMILIES, footprint, polygon, tx_clearance_m
+from snrgain.constants import WIRE_FAMILIES
+from snrgain.lot import footprint, polygon, tx_clearance_m
 
 BEARING_STEP_RAD = float(np.radians(5.0))
 LENGTHS_PER_RANGE = 5
@@ -131,10 +132,8 @@ class Problem:
 
             self.tx = Point(*self.ref_m)
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
-        self.fixed_wires = [
-            footprint(a) for a in sc.candidates if a.name not in self.names and a.family in WIRE_FAMILIES
-        ]
-        self.fixed_wires = [w for w in self.fixed_wires if w is not None]
+        fixed = [a for a in sc.candidates if a.name not in self.names and a.family in WIRE_FAMILIES]
+        self.fixed_wires = [w for w in map(footprint, fixed) if w is not None]
         self._sky: dict[tuple, tuple] = {}
 
     # -- one candidate ----------------------------------------------------------------------------------------
@@ -452,61 +451,13 @@ def as_dict(layouts: list[Layout]) -> dict:
 def with_layout(text: str, layout: Layout) -> str:
     """The scenario text with each placed candidate's position, bearing and length written in (its place table
     dropped); other lines are kept as written."""
-    import tomllib
+    from snrgain.tomltext import rewrite_table
 
-    lines = text.splitlines(keepends=True)
-    out = []
-    blocks = _candidate_blocks(lines)
-    by_name = {d.name: d for d in layout.designs}
-    i = 0
-    while i < len(lines):
-        block = next((b for b in blocks if b[0] == i), None)
-        if block is None or block[2] not in by_name:
-            out.append(lines[i])
-            i += 1
-            continue
-        start, end, name = block
-        d = by_name[name]
-        kept = []
-        skip_until_close = False
-        for ln in lines[start:end]:
-            key = ln.split("=", 1)[0].strip() if "=" in ln and not ln.lstrip().startswith("#") else None
-            if skip_until_close:
-                if "]" in ln:
-                    skip_until_close = False
-                continue
-            if key in ("position", "bearing", "length", "place"):
-                value = ln.split("=", 1)[1]
-                if key == "position" and value.count("[") > value.count("]"):
-                    skip_until_close = True
-                continue
-            kept.append(ln)
-        new = [f'position = ["{d.east_m:.1f} m", "{d.north_m:.1f} m"]   # placed by snrgain layout\n']
+    for d in layout.designs:
+        add = [f'position = ["{d.east_m:.1f} m", "{d.north_m:.1f} m"]   # placed by snrgain layout\n']
         if d.bearing_rad is not None:
-            new.append(f'bearing = "{np.degrees(d.bearing_rad):.1f} deg"\n')
+            add.append(f'bearing = "{np.degrees(d.bearing_rad):.1f} deg"\n')
         if d.length_m is not None:
-            new.append(f'length = "{d.length_m:.1f} m"\n')
-        name_at = next(j for j, ln in enumerate(kept) if ln.split("=", 1)[0].strip() == "name")
-        out.extend(kept[: name_at + 1] + new + kept[name_at + 1 :])
-        i = end
-    result = "".join(out)
-    tomllib.loads(result)  # still a valid file
-    return result
-
-
-def _candidate_blocks(lines) -> list[tuple[int, int, str]]:
-    """(first line, line after the last, name) of every [[candidate]] table."""
-    import re
-
-    heads = [j for j, ln in enumerate(lines) if re.match(r"\s*\[", ln)]
-    out = []
-    for a, b in zip(heads, heads[1:] + [len(lines)]):
-        if lines[a].strip() == "[[candidate]]":
-            name = None
-            for ln in lines[a:b]:
-                m = re.match(r'\s*name\s*=\s*"([^"]*)"', ln)
-                if m:
-                    name = m.group(1)
-                    break
-            out.append((a, b, name))
-    return out
+            add.append(f'length = "{d.length_m:.1f} m"\n')
+        text = rewrite_table(text, "[[candidate]]", d.name, drop={"position", "bearing", "length", "place"}, add=add)
+    return text

@@ -195,18 +195,7 @@ def overhead_wire(
     closed = from_series_shunt(freq_hz, z, y)
     if model == "closed-form" or ground is None:
         return closed
-    from snrgain.modal import wire_over_earth
-
-    mode = wire_over_earth(
-        float(freq_hz),
-        float(height_m),
-        float(radius_m),
-        float(ground.permittivity),
-        float(ground.conductivity_s_per_m),
-        complex(z_int),
-        complex(closed.gamma),
-    )
-    return closed if mode is None else from_series_shunt(freq_hz, mode[1], mode[2])
+    return _exact_or(closed, height_m=height_m, radius_m=radius_m, ground=ground, z_internal=z_int)
 
 
 def insulated_on_ground(
@@ -254,20 +243,30 @@ def insulated_on_ground(
     closed = from_series_shunt(freq_hz, z, 1 / inv)
     if buried or model == "closed-form":
         return closed
+    z_int = wire_internal_impedance(freq_hz, a, wire_conductivity_s_per_m)
+    return _exact_or(
+        closed, height_m=h, radius_m=a, ground=ground, z_internal=z_int, insulation=(b, insulation_permittivity)
+    )
+
+
+def _exact_or(
+    closed: LineConstants, *, height_m, radius_m, ground: Ground, z_internal, insulation=None
+) -> LineConstants:
+    """The exact mode (snrgain.modal) started from the closed-form constants ``closed``; those where it does not
+    settle.  ``insulation``: (outer radius [m], relative permittivity) of an insulated wire."""
     from snrgain.modal import wire_over_earth
 
     mode = wire_over_earth(
-        float(freq_hz),
-        float(h),
-        float(a),
+        float(closed.freq_hz),
+        float(height_m),
+        float(radius_m),
         float(ground.permittivity),
         float(ground.conductivity_s_per_m),
-        complex(wire_internal_impedance(freq_hz, a, wire_conductivity_s_per_m)),
+        complex(z_internal),
         complex(closed.gamma),
-        float(b),
-        float(insulation_permittivity),
+        *(() if insulation is None else (float(insulation[0]), float(insulation[1]))),
     )
-    return closed if mode is None else from_series_shunt(freq_hz, mode[1], mode[2])
+    return closed if mode is None else from_series_shunt(closed.freq_hz, mode[1], mode[2])
 
 
 def _check_geometry(radius_m, height_m):

@@ -398,22 +398,13 @@ def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str
 def with_sources(text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
     """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
     table removed), the others kept; refuses a failed fit."""
-    import re
     import tomllib
+
+    from snrgain.tomltext import remove_tables
 
     if not res.ok:
         raise LocateError("the fit failed, so no sources were written: " + res.message)
-    names = set(source_names(res, name))
-    lines = text.splitlines(keepends=True)
-    heads = [j for j, ln in enumerate(lines) if re.match(r"\s*\[", ln)] + [len(lines)]
-    drop = set()
-    for a, b in zip(heads, heads[1:]):
-        if re.match(r"\s*\[\[noise\.local\]\]", lines[a]):
-            for ln in lines[a:b]:
-                m = re.match(r'\s*name\s*=\s*"([^"]*)"', ln)
-                if m and m.group(1) in names:
-                    drop.update(range(a, b))
-    kept = "".join(ln for j, ln in enumerate(lines) if j not in drop)
+    kept = remove_tables(text, "[[noise.local]]", set(source_names(res, name)))
     out = kept.rstrip("\n") + "\n" + scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name)
     tomllib.loads(out)  # still one valid file
     return out

@@ -30,9 +30,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from snrgain.constants import WIRE_FAMILIES
 from snrgain.results import Notice
 
-WIRE_FAMILIES = ("beverage", "unterminated", "bog", "two-wire")
 OFF_LOT_TOLERANCE_M = 0.1
 """Beyond the lot by less than this [m] is on it (positions written to 0.1 m)."""
 DEFAULT_TX_CLEARANCE_WAVELENGTHS = 0.5

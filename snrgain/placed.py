@@ -35,9 +35,11 @@ import numpy as np
 from scipy.integrate import trapezoid
 
 from noisemodels.groundwave import dipole_field
+from snrgain.constants import WIRE_FAMILIES
 
-WIRE_FAMILIES = ("beverage", "unterminated", "bog")
-"""Long-wire families whose pickup of a placed source is integrated along the wire."""
+INTEGRATED_FAMILIES = tuple(f for f in WIRE_FAMILIES if f != "two-wire")
+"""Long-wire families whose pickup of a placed source is integrated along the wire (the two-wire's reverse port
+runs through its reflection transformer, which the point-by-point sum does not follow: it hears at its feed)."""
 
 
 def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
@@ -125,7 +127,7 @@ def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=No
     ``at_m`` puts the antenna (its feed point) there instead of at its position."""
     from snrgain.antennas.longwire import port_response
 
-    if antenna.family in WIRE_FAMILIES:
+    if antenna.family in INTEGRATED_FAMILIES:
         feed = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
         i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
         load = antenna.receiver_load_ohm(freq_hz)

@@ -24,7 +24,7 @@ from snrgain import targets as targetmod
 from snrgain.antennas import FAMILIES, Antenna, SpecError
 from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import item_label, pydantic_problems
-from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES
+from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES, WIRE_FAMILIES
 from snrgain.errors import ScenarioError
 from snrgain.fields import (
     Bearing,
@@ -52,7 +52,7 @@ _SRC = noisemod.LocalSource
 # -- the sections ------------------------------------------------------------
 
 
-PLACEABLE_FAMILIES = ("beverage", "unterminated", "bog", "two-wire", "vertical", "terminated-loop", "small-loop")
+PLACEABLE_FAMILIES = (*WIRE_FAMILIES, "vertical", "terminated-loop", "small-loop")
 """Families ``snrgain layout`` can move: one feed point, a bearing, and for wires a length."""
 
 

@@ -369,8 +369,7 @@ class Array(Antenna):
             "positions_m": [[float(x), float(y)] for x, y in self.positions],
         }
         f = self._last_freq
-        if f is None and not self.optimised:
-            f = 1.0e6  # given or end-fire weights: delays and amplitudes do not depend on it
+        if f is None and not self.optimised:  # given or end-fire weights, not yet used at a frequency
             out["delays_ns"] = [float(t * 1e9) for t, _, _ in self.weights]
             out["phases_deg"] = [float(np.degrees(ph)) for _, ph, _ in self.weights]
             out["amplitudes"] = [float(a) for _, _, a in self.weights]

@@ -12,6 +12,7 @@ from snrgain.cli.options import (
     handle_errors,
     overwrite_option,
     p372_dir_option,
+    plot_option,
     write_output,
 )
 
@@ -27,12 +28,7 @@ from snrgain.cli.options import (
     default=None,
     help="Write a copy of the scenario with the best layout's positions, bearings and lengths.",
 )
-@click.option(
-    "--plot",
-    type=click.Path(dir_okay=False, path_type=str),
-    default=None,
-    help="Save the best layout on the lot (PNG or SVG).",
-)
+@plot_option("the best layout on the lot")
 @p372_dir_option
 @overwrite_option
 @handle_errors

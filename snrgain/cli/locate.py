@@ -10,6 +10,7 @@ from snrgain.cli.options import (
     check_output,
     emit_json,
     handle_errors,
+    plot_option,
     readings_preamble,
     scenario_copy_options,
     write_output,
@@ -28,12 +29,7 @@ from snrgain.cli.options import (
     show_default=True,
     help="Source elevation [deg] when not fitted.",
 )
-@click.option(
-    "--plot",
-    type=click.Path(dir_okay=False, path_type=str),
-    default=None,
-    help="Save a polar plot of the fitted direction (PNG or SVG).",
-)
+@plot_option("a polar plot of the fitted direction")
 @click.option(
     "--name",
     default="located source",

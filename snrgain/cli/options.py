@@ -30,6 +30,13 @@ nside_option = click.option(
 )
 
 
+def plot_option(what: str):
+    """--plot FILE: save ``what`` as a figure (PNG or SVG, by the suffix)."""
+    return click.option(
+        "--plot", type=click.Path(dir_okay=False, path_type=str), default=None, help=f"Save {what} (PNG or SVG)."
+    )
+
+
 def fail(message: str, code: int) -> None:
     click.echo(f"snrgain: {message}", err=True)
     sys.exit(code)
