@@ -78,11 +78,6 @@ def build_sky(sc: Scenario, grid, gains: snr.Gains) -> noisemod.SkySeries:
     )
 
 
-def wants_sky(antenna) -> bool:
-    """True for an antenna whose weights are chosen under the scenario's own noise sky (auto_for = "snr")."""
-    return bool(getattr(antenna, "optimised", False) and antenna.auto_for == "snr")
-
-
 def nearest_target(sc: Scenario, bearing_rad: float) -> int:
     """Index of the target whose bearing lies nearest ``bearing_rad``."""
     off = [abs((t.bearing_rad - bearing_rad + np.pi) % (2 * np.pi) - np.pi) for t in sc.targets]
@@ -90,7 +85,7 @@ def nearest_target(sc: Scenario, bearing_rad: float) -> int:
 
 
 def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains) -> snr.Gains:
-    """Set the weights of every candidate steered for SNR (``auto_for = "snr"``) under this scenario's sky, and
+    """Set every candidate that ``uses_sky`` (arrays steered for SNR, combinations) under this scenario's sky, and
     return the gains with theirs evaluated afresh.
 
     The noise form is the sky's, averaged over the scenario's months and hours (one setting serves them all), plus
@@ -99,8 +94,8 @@ def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains
     """
     from snrgain.antennas.steering import quadratic_form
 
-    steered = [k for k, a in enumerate(sc.antennas) if k > 0 and (wants_sky(a) or a.family == "combination")]
-    steered.sort(key=lambda k: sc.antennas[k].family == "combination")  # a combination's parts are set first
+    steered = [k for k, a in enumerate(sc.antennas) if k > 0 and getattr(a, "uses_sky", False)]
+    steered.sort(key=lambda k: sc.antennas[k].sky_order)  # a combination's parts are set first
     if not steered or skies.maps is None:
         return gains
     for k in steered:
@@ -118,10 +113,7 @@ def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains
         noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
         t = sc.targets[nearest_target(sc, ant.params.bearing)]
         signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
-        if wants_sky(ant):
-            ant.steer(sc.freq_hz, signal=signal, noise=noise, note=f"SNR toward {t.name} under the site's noise")
-        if ant.family == "combination":
-            ant.setting_loss(sc.freq_hz, signal, noise)
+        ant.set_under_sky(sc.freq_hz, signal=signal, noise=noise, note=f"SNR toward {t.name} under the site's noise")
     fresh = snr.antenna_gains([sc.antennas[k] for k in steered], sc.freq_hz, grid, sc.targets)
     caches, toward, mean = list(gains.caches), gains.toward.copy(), gains.mean.copy()
     for i, k in enumerate(steered):

@@ -272,6 +272,19 @@ class Array(Antenna):
             self.steer(freq_hz)
         return self._steered[freq_hz]
 
+    sky_order = 0
+    """Order in which the pipeline sets antennas under the sky: a combination (1) after any array it holds."""
+
+    @property
+    def uses_sky(self) -> bool:
+        """True where the weights are set under the scenario's own noise sky (``auto_for = "snr"``)."""
+        return self.optimised and self.auto_for == "snr"
+
+    def set_under_sky(self, freq_hz: float, *, signal, noise, note: str) -> None:
+        """Called by the pipeline with the sky's signal and noise forms (:func:`snrgain.pipeline.steer_to_sky`)."""
+        if self.uses_sky:
+            self.steer(freq_hz, signal=signal, noise=noise, note=note)
+
     def set_weights(self, freq_hz: float, w: np.ndarray, note: str) -> None:
         """Hold ``w`` as the weights at ``freq_hz`` (largest magnitude 1, the first element's phase 0)."""
         w = np.asarray(w, dtype=complex)

@@ -69,6 +69,8 @@ class Combination(_Array):
 
     auto_for = "snr"
     auto_amplitudes = True
+    sky_order = 1
+    uses_sky = True  # a given setting too: the cost of its setting error is taken under the sky
 
     @property
     def optimised(self) -> bool:
@@ -133,6 +135,11 @@ class Combination(_Array):
                 out["setting"]["loss_with_error_db"] = self.setting_loss_db[f]
                 out["setting"]["error"] = "+-10 deg, +-1 dB"
         return out
+
+    def set_under_sky(self, freq_hz: float, *, signal, noise, note: str) -> None:
+        if self.optimised:
+            self.steer(freq_hz, signal=signal, noise=noise, note=note)
+        self.setting_loss(freq_hz, signal, noise)
 
     def setting_loss(self, freq_hz: float, signal, noise) -> float:
         """The largest SNR loss [dB] of the present weights under setting errors (:data:`SETTING_ERRORS`)."""
