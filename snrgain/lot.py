@@ -31,6 +31,7 @@ from __future__ import annotations
 import numpy as np
 
 from snrgain.constants import WIRE_FAMILIES
+from snrgain.ground import C_M_PER_S
 from snrgain.results import Notice
 
 OFF_LOT_TOLERANCE_M = 0.1
@@ -78,7 +79,7 @@ def footprint(antenna):
 def tx_clearance_m(site, freq_hz: float) -> float:
     """The distance to keep from the transmitting vertical [m]: as given, else half a wavelength."""
     given = getattr(site, "tx_clearance_m", None)
-    return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * 299_792_458.0 / freq_hz
+    return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * C_M_PER_S / freq_hz
 
 
 def site_notices(sc) -> list[Notice]:

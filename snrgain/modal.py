@@ -46,9 +46,8 @@ from functools import lru_cache
 import numpy as np
 from scipy import integrate
 
-from snrgain.ground import EPS0_F_PER_M, MU0_H_PER_M
-
-C_M_PER_S = 299_792_458.0
+from noisemodels.groundwave import complex_permittivity
+from snrgain.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
 
 
 def _sqrt_re(z):
@@ -153,7 +152,7 @@ def wire_over_earth(
     memory; a wire resting on the soil has its axis at height b."""
     omega = 2 * np.pi * freq_hz
     k0 = omega / C_M_PER_S
-    n2 = complex(permittivity, -conductivity_s_per_m / (omega * EPS0_F_PER_M))
+    n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
     b = radius_m if insulation_radius_m is None else insulation_radius_m
     layer = 0.0 if insulation_radius_m is None else float(np.log(b / radius_m))
     gamma = complex(gamma_start)

@@ -36,6 +36,7 @@ from scipy.integrate import trapezoid
 
 from noisemodels.groundwave import dipole_field
 from snrgain.constants import WIRE_FAMILIES
+from snrgain.ground import C_M_PER_S
 
 INTEGRATED_FAMILIES = tuple(f for f in WIRE_FAMILIES if f != "two-wire")
 """Long-wire families whose pickup of a placed source is integrated along the wire (the two-wire's reverse port
@@ -77,7 +78,7 @@ def antenna_point(antenna, reference_m) -> np.ndarray:
 def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarray:
     """Sample distances along a wire [m]: finer than a 40th of a wavelength and a quarter of the closest
     approach to the source, at least 400 points, at most 40,000."""
-    lam = 299_792_458.0 / freq_hz
+    lam = C_M_PER_S / freq_hz
     step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
     n = int(np.clip(np.ceil(length_m / step), 400, 40_000)) + 1
     return np.linspace(0.0, length_m, n)
