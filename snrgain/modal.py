@@ -170,4 +170,64 @@ def wire_over_earth(
     return None
 
 
-__all__ = ["earth_integrals", "wire_over_earth"]
+def spectral_impedance(
+    xi, freq_hz: float, height_m: float, radius_m: float, n2: complex, z_internal=0j, *, adaptive=False
+):
+    """Z(xi) [ohm/m]: the axial field at a bare wire's surface per unit current for a current I exp(-j xi x), with
+    the sign that makes a gap of voltage V drive I~(xi) = V / Z(xi) (the kernel of the module docstring with
+    gamma = j xi: Z = Z_int + (j / 2 pi omega eps0) [(gamma^2 + k0^2) L + gamma^2 Q + 2 k0^2 P]).  Its zero on the
+    lower half plane near +k0 is the mode (:func:`wire_over_earth`)."""
+    omega = 2 * np.pi * freq_hz
+    k0 = omega / C_M_PER_S
+    g = 1j * complex(xi)
+    p, q = earth_integrals(g, freq_hz, height_m, n2, adaptive=adaptive)
+    lam = _image_term(g, k0, radius_m, height_m)
+    return z_internal + 1j / (2 * np.pi * omega * EPS0_F_PER_M) * (
+        (g * g + k0 * k0) * lam + g * g * q + 2 * k0 * k0 * p
+    )
+
+
+def gap_current(
+    freq_hz: float,
+    height_m: float,
+    radius_m: float,
+    permittivity: float,
+    conductivity_s_per_m: float,
+    x_m,
+    *,
+    z_internal: complex = 0j,
+    step_k0: float = 2e-3,
+    top_k0: float = 8.0,
+) -> tuple[np.ndarray, np.ndarray]:
+    """(mode, rest) [A per volt]: the current at distances ``x_m`` (> 0) from a gap of 1 V in an infinite wire
+    over the earth, split into the mode and the rest of the spectrum (radiation and the waves of the interface).
+
+    I(x) = (1/2 pi) integral I~(xi) exp(-j xi x) dxi with I~ = 1 / Z(xi) (:func:`spectral_impedance`): the mode's
+    pole xi_p = -j gamma is taken out analytically (its residue gives -j R exp(-gamma x), R = 1 / Z'(xi_p)); the
+    remainder, smooth but for the logarithmic branch point at k0, is summed by the trapezoidal rule on a grid of
+    ``step_k0`` k0 up to ``top_k0`` k0 (I~ is even in xi).  Over a good conductor the mode is the whole answer,
+    V / (2 Z0) exp(-gamma x), the transmission line's; over poor ground and as the wire rises in wavelengths the
+    rest grows (a fifth of the mode's current at 2 m over 1 mS/m at 3.6 MHz) and a wave fitted to the total
+    current decays more slowly than the mode: what a current fitted along a wire in NEC-2 shows (tests)."""
+    k0 = 2 * np.pi * freq_hz / C_M_PER_S
+    n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
+    mode = wire_over_earth(
+        freq_hz, height_m, radius_m, permittivity, conductivity_s_per_m, complex(z_internal), complex(0.0, 1.05 * k0)
+    )
+    if mode is None:
+        raise ValueError("the wire's mode did not settle (a nearly lossless ground): no gap current")
+    xi_p = -1j * mode[0]
+
+    def z(xi, adaptive=False):
+        return spectral_impedance(xi, freq_hz, height_m, radius_m, n2, z_internal, adaptive=adaptive)
+
+    d = 1e-6 * k0
+    residue = 1.0 / ((z(xi_p + d, True) - z(xi_p - d, True)) / (2 * d))
+    grid = np.arange(0.0, top_k0 * k0, step_k0 * k0)
+    rest_spectrum = np.array([1.0 / z(xi) - residue / (xi - xi_p) + residue / (xi + xi_p) for xi in grid])
+    x = np.atleast_1d(np.asarray(x_m, dtype=float))
+    rest = np.trapezoid(rest_spectrum[None, :] * np.cos(np.outer(x, grid)), grid, axis=1) / np.pi
+    return -1j * residue * np.exp(-1j * xi_p * x), rest
+
+
+__all__ = ["earth_integrals", "gap_current", "spectral_impedance", "wire_over_earth"]

@@ -48,6 +48,28 @@ def stub_deck(*, freq_mhz, height_m, segments, radius_m, permittivity, conductiv
     )
 
 
+def junction_ohm(text: str) -> float:
+    """The stub's input resistance [ohm] from nec2c's output: NEC's wire-to-ground junction."""
+    m = re.search(
+        r"ANTENNA INPUT PARAMETERS.*?\n.*?\n.*?\n\s*\d+\s+\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(\S+)",
+        text,
+        re.S,
+    )
+    return float(m.group(1))
+
+
+def deembedded_deck(deck: str, termination_ohm: float, r_j: float) -> tuple[str, int]:
+    """``deck`` (necdeck.beverage_deck) with the junction resistance ``r_j`` taken out at both ends by load cards,
+    and the number of segments of its down-leads."""
+    nl = int(re.search(r"^GW 1 (\d+)", deck, re.M).group(1))
+    out = deck.replace(
+        f"LD 0 3 {nl} {nl} {termination_ohm:.3f} 0 0",
+        f"LD 0 3 {nl} {nl} {termination_ohm - r_j:.3f} 0 0\nLD 0 1 1 1 {-r_j:.3f} 0 0",
+    )
+    assert out != deck
+    return out, nl
+
+
 def main():
     ref = json.loads((HERE / "reference.json").read_text())
     out = {"engine": "nec2c (NEC-2 in C, Debian package nec2c)", "elevation_deg": 20.0, "cases": []}
@@ -72,18 +94,8 @@ def main():
                 permittivity=case["permittivity"],
                 conductivity_s_per_m=case["conductivity_s_per_m"],
             )
-            text = run_nec2c(stub, work, "stub")
-            m = re.search(
-                r"ANTENNA INPUT PARAMETERS.*?\n.*?\n.*?\n\s*\d+\s+\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+(\S+)\s+(\S+)",
-                text,
-                re.S,
-            )
-            r_j = float(m.group(1))
-            deck_d = deck.replace(
-                f"LD 0 3 {nl} {nl} {case['termination_ohm']:.3f} 0 0",
-                f"LD 0 3 {nl} {nl} {case['termination_ohm'] - r_j:.3f} 0 0\nLD 0 1 1 1 {-r_j:.3f} 0 0",
-            )
-            assert deck_d != deck
+            r_j = junction_ohm(run_nec2c(stub, work, "stub"))
+            deck_d, _ = deembedded_deck(deck, case["termination_ohm"], r_j)
             name = f"{case['name']}-deemb"
             (HERE / "cases" / f"{name}.nec").write_text(deck_d)
             res = parse_output(run_nec2c(deck_d, work, name))

@@ -16,9 +16,12 @@ building these cases), so the lossy-ground cases stay at 0.8-0.95
 wavelength.  The cause is a known defect of the packaged nec2c 1.3: in
 somnec.c the attenuation function fbar() falls through from its series
 branch into its asymptotic one (a missing return), which spoils the
-Sommerfeld tables at the larger distances a long structure needs.  CI
-installs Debian's package and builds nothing, so the references stay below
-a wavelength rather than carrying a patched engine.  Longer wires are checked over perfect ground, where nec2c and
+Norton ground-wave fields NEC-2 uses for segments more than about a
+wavelength apart.  These references run the packaged engine that CI
+installs; the longer Beverages come from make_long.py on nec2c built with
+the project's one-line fix (build_nec2c.sh, nec2c-fbar.patch), which gives
+these decks the same results to the 0.01 dB it prints.  Longer wires are
+also checked over perfect ground, where nec2c and
 PyNEC agree to 0.01 dB and the tests run PyNEC live.  PyNEC's own Sommerfeld
 solution disagrees with nec2c (a 10.6 m dipole 0.43 m above eps_r 10,
 2 mS/m ground at 14 MHz: PyNEC 2.3.4 gives 428-308j ohm, nec2c 100.0+65.9j),

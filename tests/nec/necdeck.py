@@ -12,6 +12,7 @@ direction (toward the far end).
 
 from __future__ import annotations
 
+import os
 import re
 import subprocess
 from pathlib import Path
@@ -55,12 +56,25 @@ def beverage_deck(
     return "\n".join(lines) + "\n"
 
 
-def run_nec2c(deck_text: str, workdir: Path, name: str) -> str:
-    """Run nec2c on a deck in ``workdir``; returns the output text."""
+PATCHED_ENGINE = Path(__file__).resolve().parent / "engine" / "nec2c-fbar"
+
+
+def patched_engine() -> str:
+    """The path of nec2c built with the project's fix to fbar() (build_nec2c.sh), for structures longer than a
+    wavelength; SNRGAIN_NEC2C overrides it.  Raises with what to run where there is none."""
+    path = os.environ.get("SNRGAIN_NEC2C") or str(PATCHED_ENGINE)
+    if not Path(path).is_file():
+        raise SystemExit(f"no patched nec2c at {path}: run tests/nec/build_nec2c.sh (or set SNRGAIN_NEC2C)")
+    return path
+
+
+def run_nec2c(deck_text: str, workdir: Path, name: str, engine: str = "nec2c") -> str:
+    """Run nec2c (``engine``: Debian's by default, or :func:`patched_engine`) on a deck in ``workdir``; returns
+    the output text."""
     deck = workdir / f"{name}.nec"
     out = workdir / f"{name}.out"
     deck.write_text(deck_text)
-    subprocess.run(["nec2c", "-i", str(deck), "-o", str(out)], check=True, capture_output=True)
+    subprocess.run([engine, "-i", str(deck), "-o", str(out)], check=True, capture_output=True)
     return out.read_text()
 
 
