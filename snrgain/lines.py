@@ -211,9 +211,9 @@ def insulated_on_ground(
     model: str = "exact",
 ) -> LineConstants:
     """Constants of an insulated wire lying on (height_m, its axis above the soil; default the insulation radius:
-    resting on it) or buried in (depth_m) the soil.  On the surface, ``model = "exact"`` (the default) solves the
-    full-wave mode with the insulation as a coaxial layer (snrgain.modal); "closed-form", and every buried wire,
-    take the shunt-path model of the module docstring."""
+    resting on it) or buried in (depth_m, its axis below the surface) the soil.  ``model = "exact"`` (the default)
+    solves the full-wave mode with the insulation as a coaxial layer (snrgain.modal: wire_over_earth on the
+    surface, wire_in_earth buried); "closed-form" takes the shunt-path model of the module docstring."""
     if model not in LINE_MODELS:
         raise ValueError(f"line model must be one of {LINE_MODELS}; got {model!r}")
     if ground is None:
@@ -226,6 +226,11 @@ def insulated_on_ground(
     omega = 2 * np.pi * freq_hz
     buried = depth_m > 0
     h = b if height_m is None else height_m
+    if buried and depth_m < b:
+        raise ValueError(
+            f"depth: the wire's axis ({depth_m:g} m) must lie at least its insulation radius ({b:g} m) below the "
+            "surface to be buried; give 0 for a wire on the surface"
+        )
     if not buried and h < b:
         raise ValueError(f"the wire's axis ({h:g} m) cannot lie below its insulation radius ({b:g} m) on the surface")
     z = wire_internal_impedance(freq_hz, a, wire_conductivity_s_per_m)
@@ -241,9 +246,24 @@ def insulated_on_ground(
         y_soil = np.pi * sigma_c / np.log(1.12 / (gamma_e * np.sqrt(b * h)))
         inv = 1 / y_ins + 1 / y_gap + 1 / y_soil
     closed = from_series_shunt(freq_hz, z, 1 / inv)
-    if buried or model == "closed-form":
+    if model == "closed-form":
         return closed
     z_int = wire_internal_impedance(freq_hz, a, wire_conductivity_s_per_m)
+    if buried:
+        from snrgain.modal import wire_in_earth
+
+        mode = wire_in_earth(
+            float(freq_hz),
+            float(depth_m),
+            float(a),
+            float(ground.permittivity),
+            float(ground.conductivity_s_per_m),
+            complex(z_int),
+            complex(closed.gamma),
+            float(b),
+            float(insulation_permittivity),
+        )
+        return closed if mode is None else from_series_shunt(freq_hz, mode[1], mode[2])
     return _exact_or(
         closed, height_m=h, radius_m=a, ground=ground, z_internal=z_int, insulation=(b, insulation_permittivity)
     )

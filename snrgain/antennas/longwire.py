@@ -88,8 +88,9 @@ class WireParams(WireSize, AntennaParams):
     z0: float | None = Field(default=None, gt=0.0, le=2000.0)
     ground: GroundField | None = None
     line_model: Literal["exact", "closed-form"] = "exact"
-    """How a wire in the air is solved: the full-wave modal equation (snrgain.modal) or the quasi-TEM closed form
-    (snrgain.lines; faster, a few per cent off over poor ground at the higher bands).  The BOG uses its own."""
+    """How the wire's line is solved: the full-wave modal equation (snrgain.modal; for the BOG with its insulation
+    as a coaxial layer, on the soil or buried) or the closed form (snrgain.lines; faster, a few per cent off over
+    poor ground at the higher bands; for the BOG snrgain's own shunt-path model)."""
 
     @model_validator(mode="after")
     def _wire(self):
@@ -135,6 +136,16 @@ class BogParams(WireParams):
     insulation_permittivity: float = Field(default=3.0, ge=1.0, le=20.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
     far_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
+
+    @model_validator(mode="after")
+    def _buried(self):
+        b = self.radius_m + self.insulation_thickness
+        if 0 < self.depth < b:
+            raise ValueError(
+                f"depth: a buried wire's axis must lie at least its insulation radius ({1000 * b:.2f} mm) below the "
+                f"surface; got {1000 * self.depth:.2f} mm (give 0 for a wire on the surface)"
+            )
+        return self
 
 
 class TwoWireParams(WireParams):
@@ -471,8 +482,9 @@ class Bog(LongWire):
     1.83-3.6 MHz; held 2 cm up by grass (the default), 0.62-0.65 and 340 ohm; 5 cm up, 0.70-0.72 and 380 ohm
     (the exact mode, snrgain.modal; PVC taken as eps_r 3.5).  Builders who lay insulated wire on lawns report
     0.65-0.77 (common practice), which this model reaches with the axis 3-15 cm up; the default of 2 cm sits at
-    the low end of what grass holds a wire at.  Measure your wire (``snrgain calibrate``) and give its constants
-    when you can.
+    the low end of what grass holds a wire at.  Buried (``depth``, the axis below the surface) the same wire is
+    slower and lossier still: VF 0.21 and 66 dB/100 m at 5 cm, |Z0| about 105 ohm (snrgain.modal.wire_in_earth).
+    Measure your wire (``snrgain calibrate``) and give its constants when you can.
     """
 
     has_leads = False
