@@ -365,7 +365,8 @@ def test_frequency_outside_validity():
 DEEMB = json.loads((NEC_DIR / "deembedded.json").read_text())
 # Measured outliers, named: the 30 mS/m wire at 7.1 MHz reads 0.84 dB more RDF than NEC; the 1.2 m wire over
 # 1 mS/m at 3.6 MHz 4.4 dB more front-to-back (NEC 9.6 dB); the 300 ohm termination of the sweep 4.0 dB less
-# (NEC 23.4 dB, the model 19.4 dB, near the resistor of deepest null, where the depth turns on details).
+# (NEC 23.4 dB, the model 19.4 dB, near the resistor of deepest null, where the depth turns on details).  In all
+# three NEC's own answer has not settled: it moves with the down-leads' segmentation (the next test).
 _RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 1.0}
 _FB_WIDER = {"f360-l70-h12-s1ms-deemb": 4.5, "f183-l150-h3-s1ms-r300-deemb": 4.5}
 
@@ -395,6 +396,43 @@ def test_against_nec2_with_the_junction_taken_out(case):
     assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.0)
     if not (got["front_to_back_db"] > 20 and case["front_to_back_db"] > 20):
         assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=_FB_WIDER.get(case["name"], 2.0))
+
+
+def test_the_named_outliers_are_where_nec_has_not_settled():
+    # tests/nec/make_deembedded.py reran four cases with the down-leads split finer (40-200 segments per
+    # wavelength; NEC's junction grows from 62 to 117 ohm over 5 mS/m, from 164-229 to 652-670 ohm over 1 mS/m).
+    # Over 5 mS/m the figures hold (F/B within 0.6 dB, RDF 0.06 dB); over 1 mS/m NEC's front-to-back falls by
+    # 4.7 and 11.9 dB, more than the model departs from it there (4.4 and 4.0 dB), and for the 7.1 MHz wire its
+    # RDF climbs 0.33 dB toward the model's.  So the tolerances widened above cover NEC's uncertainty, not the
+    # model's.
+    checks = {c["name"]: c["runs"] for c in DEEMB["segmentation_check"]}
+
+    def spread(name, key):
+        values = [r[key] for r in checks[name]]
+        return max(values) - min(values)
+
+    assert spread("f183-l131-h2-s5ms-deemb", "front_to_back_db") < 1.0
+    assert spread("f183-l131-h2-s5ms-deemb", "rdf_db") < 0.1
+    cases = {c["name"]: c for c in DEEMB["cases"]}
+    for name in ("f360-l70-h12-s1ms-deemb", "f183-l150-h3-s1ms-r300-deemb"):
+        case = cases[name]
+        f = case["freq_mhz"] * 1e6
+        ant = from_spec(
+            {
+                "family": "beverage",
+                "length": f"{case['length_m']} m",
+                "height": f"{case['height_m']} m",
+                "diameter": f"{2 * case['radius_m']} m",
+                "termination": case["termination_ohm"],
+                "feed_ground": 0,
+                "far_ground": 0,
+                "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
+            }
+        )
+        departure = abs(_figures(ant, f)["front_to_back_db"] - case["front_to_back_db"])
+        assert 2.0 < departure < spread(name, "front_to_back_db")
+    rdf = [r["rdf_db"] for r in checks["f710-l36-h2-s30ms-deemb"]]
+    assert rdf == sorted(rdf) and rdf[-1] - rdf[0] > 0.3
 
 
 LONG = json.loads((NEC_DIR / "long.json").read_text())
