@@ -79,6 +79,7 @@ def main():
         "isotropic": {"family": "isotropic"},
         "beverage 300 m": {"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"},
         "bog 80 m": {"family": "bog", "length": "80 m", "ground": "moist loam"},
+        "bog 60 m buried 10 cm": {"family": "bog", "length": "60 m", "depth": "10 cm", "ground": "moist loam"},
         "terminated loop": {
             "family": "terminated-loop",
             "width": "8.5 m",
@@ -108,7 +109,7 @@ def main():
         "vertical": {"family": "vertical", "height": "18 m"},
         "tabulated": {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")},
     }
-    print(f"\n{'family':<16}{'nside 32 [ms]':>15}{'nside 64 [ms]':>15}{'ratio':>8}   (target: <= 20 ms at nside 32)")
+    print(f"\n{'family':<24}{'nside 32 [ms]':>15}{'nside 64 [ms]':>15}{'ratio':>8}   (target: <= 20 ms at nside 32)")
     for name, spec in specs.items():
         ant = from_spec(spec)
         row = []
@@ -116,7 +117,7 @@ def main():
             g = upper_hemisphere(nside)
             best, _ = best_of(lambda: ant.gain_linear(1.83e6, g.azimuth_rad, g.elevation_rad), n=20)
             row.append(best)
-        print(f"{name:<16}{row[0] * 1e3:>15.2f}{row[1] * 1e3:>15.2f}{row[1] / row[0]:>8.1f}")
+        print(f"{name:<24}{row[0] * 1e3:>15.2f}{row[1] * 1e3:>15.2f}{row[1] / row[0]:>8.1f}")
 
     long_wire_benchmarks(from_spec, upper_hemisphere)
     steering_benchmarks(data)
