@@ -67,10 +67,22 @@ def _nodes(n: int) -> tuple[np.ndarray, np.ndarray]:
     return np.polynomial.legendre.leggauss(n)
 
 
-def _gauss(f, a: float, b: float, n: int = 160) -> complex:
-    x, w = _nodes(n)
-    t = 0.5 * (b - a) * (x + 1.0) + a
-    return complex(0.5 * (b - a) * np.dot(w, f(t)))
+def _pair(parts, edges, adaptive: bool) -> tuple[complex, complex]:
+    """The integrals of the two integrands ``parts(lam) -> (f1, f2)`` over [edges[0], edges[-1]]: 160-point
+    Gauss-Legendre on each piece between edges, all pieces evaluated in one pass (each node's square roots
+    computed once for both); ``adaptive`` uses scipy's adaptive quadrature piece by piece instead."""
+    pieces = [(a, b) for a, b in zip(edges[:-1], edges[1:]) if b > a]
+    if adaptive:
+        one = sum(_cquad(lambda t: parts(t)[0], a, b) for a, b in pieces)
+        two = sum(_cquad(lambda t: parts(t)[1], a, b) for a, b in pieces)
+        return complex(one), complex(two)
+    x, w = _nodes(160)
+    lo = np.array([a for a, _ in pieces])[:, None]
+    half = 0.5 * (np.array([b for _, b in pieces])[:, None] - lo)
+    t = (half * (x + 1.0) + lo).ravel()
+    weights = (half * w).ravel()
+    f1, f2 = parts(t)
+    return complex(np.dot(weights, f1)), complex(np.dot(weights, f2))
 
 
 def earth_integrals(
@@ -87,13 +99,10 @@ def earth_integrals(
 
     rho = offset_m
 
-    def p_int(lam):
+    def parts(lam):
         u0, u1 = _sqrt_re(lam * lam + kap0), _sqrt_re(lam * lam + kap1)
-        return np.exp(-2 * u0 * h) * np.cos(lam * rho) / (u0 + u1)
-
-    def q_int(lam):
-        u0, u1 = _sqrt_re(lam * lam + kap0), _sqrt_re(lam * lam + kap1)
-        return u0 * (u0 - u1) * np.exp(-2 * u0 * h) * np.cos(lam * rho) / (n2 * u0 + u1)
+        common = np.exp(-2 * u0 * h) * np.cos(lam * rho)
+        return common / (u0 + u1), u0 * (u0 - u1) * common / (n2 * u0 + u1)
 
     # The integrands fall as exp(-2 lambda h): integrate to 20 / h.  Break points: the scale of kappa0 (where u0
     # turns from kappa0 to lambda), the earth's |k1|, and 1 / 2h.
@@ -103,16 +112,7 @@ def earth_integrals(
     for m in marks:
         edges += [0.3 * m, 3.0 * m] if m > 0 else []
     edges = sorted({min(e, top) for e in edges} | {top})
-    total_p = total_q = 0j
-    for a, b in zip(edges[:-1], edges[1:]):
-        if b <= a:
-            continue
-        if adaptive:
-            total_p += _cquad(p_int, a, b)
-            total_q += _cquad(q_int, a, b)
-        else:
-            total_p += _gauss(p_int, a, b)
-            total_q += _gauss(q_int, a, b)
+    total_p, total_q = _pair(parts, edges, adaptive)
     return total_p, 2 * total_p - 2 * total_q / k0**2
 
 
@@ -202,18 +202,7 @@ def buried_integrals(gamma: complex, freq_hz: float, depth_m: float, n2: complex
         return g_h * common / u1, (u1 * g_e + k1sq * g_h / u1) * common / (lam * lam - gamma**2) / n2
 
     top = 20.0 / d
-    edges = _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(kap1)), 0.5 / d), top)
-    r_h = r_e = 0j
-    for a, c in zip(edges[:-1], edges[1:]):
-        if c <= a:
-            continue
-        if adaptive:
-            r_h += _cquad(lambda t: parts(t)[0], a, c)
-            r_e += _cquad(lambda t: parts(t)[1], a, c)
-        else:
-            r_h += _gauss(lambda t: parts(t)[0], a, c)
-            r_e += _gauss(lambda t: parts(t)[1], a, c)
-    return r_h, r_e
+    return _pair(parts, _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(kap1)), 0.5 / d), top), adaptive)
 
 
 @lru_cache(maxsize=256)

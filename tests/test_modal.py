@@ -41,6 +41,18 @@ def test_fixed_quadrature_matches_adaptive(f, h, sigma, eps):
         assert abs(a - b) < 1e-9 * abs(b)
 
 
+@pytest.mark.parametrize(
+    "f, d, sigma, eps", [(1.83e6, 0.05, 0.005, 13), (3.6e6, 0.3, 0.001, 5), (7.1e6, 0.1, 0.03, 20)]
+)
+def test_buried_quadrature_matches_adaptive(f, d, sigma, eps):
+    n2 = complex(eps, -sigma / (2 * np.pi * f * 8.8541878128e-12))
+    g = complex(0.01, 2 * np.pi * f / C_M_PER_S / 0.22)
+    fast = modal.buried_integrals(g, f, d, n2, offset_m=1.6e-3)
+    slow = modal.buried_integrals(g, f, d, n2, offset_m=1.6e-3, adaptive=True)
+    for a, b in zip(fast, slow):
+        assert abs(a - b) < 1e-8 * abs(b)
+
+
 @pytest.mark.parametrize("case", FITS["cases"], ids=[c["name"] for c in FITS["cases"]])
 def test_against_nec2_current_fits(case):
     # Reference: nec2c's current along stored decks (tests/nec/cases), fitted to a forward and a reflected wave
