@@ -189,11 +189,13 @@ def wire_spec(
     conductivity=None,
     permittivity=None,
     coax: int = 75,
+    depth=None,
 ) -> dict:
     """An antenna spec for a long wire from design options (units as in scenario files).
 
     The far-end keys go only to the families that have them; ``height`` defaults to 2.5 m (2 cm, the axis
-    height, for a BOG); ``conductivity`` with ``permittivity`` replaces a named ``ground``.
+    height, for a BOG; "on soil" rests it on the soil); ``depth`` buries a BOG; ``conductivity`` with
+    ``permittivity`` replaces a named ``ground``.
     """
     if family not in WIRE_FAMILIES:
         raise ValueError(f"family must be one of {', '.join(WIRE_FAMILIES)}; got {family!r}")
@@ -204,6 +206,12 @@ def wire_spec(
         "feed_ground": feed_ground,
         "height": height or ("2 cm" if family == "bog" else "2.5 m"),
     }
+    if depth is not None:
+        if family != "bog":
+            raise ValueError(f"depth: only a bog (a wire on the ground) can be buried, not a {family}")
+        if height is not None:
+            raise ValueError("depth: a buried wire has no height above the soil; give one or the other")
+        spec["depth"] = depth
     if family != "unterminated":
         spec["far_ground"] = far_ground
     if family in ("beverage", "bog"):
@@ -253,6 +261,10 @@ def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_EL
             textbook_termination_ohm=t_rdf.textbook_ohm,
             best_rdf_termination_ohm=t_rdf.best_ohm,
             best_front_to_back_termination_ohm=t_fb.best_ohm,
+            # How much the choice matters: each figure's range over the resistors searched (50-3000 ohm).
+            termination_rdf_span_db=float(np.ptp(t_rdf.figure_db)),
+            termination_front_to_back_span_db=float(np.ptp(t_fb.figure_db)),
+            termination_search_ohm=[float(t_rdf.values_ohm[0]), float(t_rdf.values_ohm[-1])],
         )
     tr = transformer(ant, freq_hz)
     out.update(

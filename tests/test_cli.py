@@ -123,3 +123,41 @@ def test_help_texts(runner):
     for cmd in ([], ["rank"], ["check"], ["new"]):
         res = runner.invoke(cli, cmd + ["--help"])
         assert res.exit_code == 0 and "Usage" in res.output
+
+
+def test_wire_command_beverage(runner):
+    res = runner.invoke(cli, ["wire", "--frequency", "1.83 MHz", "--length", "250 m"])
+    assert res.exit_code == 0, res.output
+    assert "at 2.5 m over moist loam ground" in res.output
+    assert "best front-to-back" in res.output and "Safety:" in res.output
+    js = json.loads(
+        runner.invoke(cli, ["wire", "--frequency", "1.83 MHz", "--length", "250 m", "--format", "json"]).output
+    )
+    assert js["termination_front_to_back_span_db"] > 10  # a long Beverage's rear null turns on its resistor
+    assert js["termination_search_ohm"] == [50.0, 3000.0]
+
+
+def test_wire_command_bog_where_it_lies(runner):
+    base = ["wire", "--family", "bog", "--frequency", "1.83 MHz", "--length", "60 m"]
+    grass = runner.invoke(cli, base)
+    soil = runner.invoke(cli, [*base, "--height", "on soil"])
+    buried = runner.invoke(cli, [*base, "--depth", "10 cm"])
+    assert "its axis 2 cm above moist loam" in grass.output
+    assert "resting on moist loam" in soil.output
+    assert "buried 10 cm deep in moist loam" in buried.output
+    # 60 m buried loses about 35 dB one way: whatever the far end reflects never comes back.
+    assert "termination: hardly matters on this wire" in buried.output
+    assert "hardly matters" not in grass.output
+
+
+@pytest.mark.parametrize(
+    "args, match",
+    [
+        (["--depth", "10 cm"], "only a bog"),
+        (["--family", "bog", "--depth", "1 mm"], "depth"),
+        (["--family", "bog", "--depth", "10 cm", "--height", "2 cm"], "one or the other"),
+    ],
+)
+def test_wire_command_refuses_a_depth_it_cannot_use(runner, args, match):
+    res = runner.invoke(cli, ["wire", "--frequency", "1.83 MHz", "--length", "60 m", *args])
+    assert res.exit_code == 2 and match in res.output

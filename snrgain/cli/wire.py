@@ -17,8 +17,10 @@ from snrgain.constants import WIRE_FAMILIES
 @click.option(
     "--height",
     default=None,
-    help="Height of the wire with unit (default 2.5 m; for bog the axis height above the soil, default 2 cm).",
+    help="Height of the wire with unit (default 2.5 m; for bog the axis height above the soil, default 2 cm for a "
+    "wire in grass, or 'on soil').",
 )
+@click.option("--depth", default=None, help="Bury a bog: its axis below the surface with unit, e.g. '10 cm'.")
 @click.option("--gauge", type=click.IntRange(-3, 40), default=None, help="Wire gauge, AWG (default 14).")
 @click.option("--diameter", default=None, help="Wire diameter with unit instead of --gauge, e.g. '1.6 mm'.")
 @click.option("--ground", default="moist loam", show_default=True, help="Named ground (see README) or 'perfect'.")
@@ -44,6 +46,7 @@ def wire(
     frequency,
     length,
     height,
+    depth,
     gauge,
     diameter,
     ground,
@@ -83,6 +86,7 @@ def wire(
         conductivity=conductivity,
         permittivity=permittivity,
         coax=int(coax),
+        depth=depth,
     )
     out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
     if fmt == "json":
@@ -93,9 +97,16 @@ def wire(
 
     length_m, rule_m, best_m = ant["length_m"], out["length_rule_m"], out["best_length_m"]
     z0 = complex(*ln["z0_ohm"])
+    if family != "bog":
+        where = f"at {ant['height_m']:g} m over"
+    elif ant.get("depth_m"):
+        where = f"buried {100 * ant['depth_m']:g} cm deep in"
+    elif spec["height"] == "on soil":
+        where = "resting on"
+    else:
+        where = f"its axis {100 * ant['height_m']:g} cm above"
     lines_out = [
-        f"{family}: {length_m:.1f} m ({length_m * ft:.0f} ft) at {ant['height_m']:g} m over "
-        f"{ant['ground']} ground, {f / 1e6:g} MHz",
+        f"{family}: {length_m:.1f} m ({length_m * ft:.0f} ft) {where} {ant['ground']} ground, {f / 1e6:g} MHz",
         f"  line: velocity factor {ln['velocity_factor']:.3f}, "
         f"attenuation {ln['attenuation_db_per_100m']:.2f} dB/100 m "
         f"({ln['attenuation_db_per_100ft']:.2f} dB/100 ft), Z0 {z0.real:.0f}{z0.imag:+.0f}j ohm (|Z0| {abs(z0):.0f})",
@@ -106,11 +117,25 @@ def wire(
         f"front-to-back {out['front_to_back_db']:.1f} dB at {elevation:g} deg",
     ]
     if "textbook_termination_ohm" in out:
-        lines_out.append(
-            f"  termination: |Z0| less the far rod = {out['textbook_termination_ohm']:.0f} ohm; best RDF "
-            f"{out['best_rdf_termination_ohm']:.0f} ohm; best front-to-back "
-            f"{out['best_front_to_back_termination_ohm']:.0f} ohm"
-        )
+        lo, hi = out["termination_search_ohm"]
+        spans = out["termination_rdf_span_db"], out["termination_front_to_back_span_db"]
+
+        def best(key):
+            r = out[key]
+            return f"{hi:.0f} ohm or more (the top of the range searched)" if r >= hi else f"{r:.0f} ohm"
+
+        if max(spans) < 0.5:
+            lines_out.append(
+                f"  termination: hardly matters on this wire (RDF and front-to-back move under 0.5 dB from {lo:.0f} "
+                f"to {hi:.0f} ohm: the line's loss absorbs what the far end reflects); |Z0| less the far rod = "
+                f"{out['textbook_termination_ohm']:.0f} ohm"
+            )
+        else:
+            lines_out.append(
+                f"  termination: |Z0| less the far rod = {out['textbook_termination_ohm']:.0f} ohm; best RDF "
+                f"{best('best_rdf_termination_ohm')} (RDF spans {spans[0]:.1f} dB over {lo:.0f}-{hi:.0f} ohm); "
+                f"best front-to-back {best('best_front_to_back_termination_ohm')} (spans {spans[1]:.1f} dB)"
+            )
     zin = out["feed_point_impedance_ohm"]
     exact = out["exact_turns_ratio"]
     lines_out += [
