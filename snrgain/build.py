@@ -75,6 +75,9 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
         ln = antenna.line(freq_hz)
         out["velocity_factor"] = ln.velocity_factor
         out["z0_magnitude_ohm"] = float(abs(ln.z0))
+        # The wire's loss end to end: above 20 dB what the far end reflects returns 40 dB down, so the
+        # termination hardly matters (the build sheet says so).
+        out["end_to_end_loss_db"] = float(ln.attenuation_db_per_100m * antenna.length_m / 100.0)
     if hasattr(antenna, "turns_ratio") and hasattr(antenna, "feed_point_impedance"):
         tr = wiredesign.transformer(antenna, freq_hz)
         z = tr.feed_point_impedance_ohm

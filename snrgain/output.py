@@ -300,6 +300,10 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
         if "termination_ohm" in b:
             bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm)")
+            if b.get("end_to_end_loss_db", 0.0) > 20.0:
+                bits.append(
+                    f"the wire loses {b['end_to_end_loss_db']:.0f} dB end to end, so the termination hardly matters"
+                )
         if "turns_ratio" in b:
             bits.append(
                 f"transformer {b['turns_ratio']:.2f}:1 to {b['coax_ohm']:g} ohm coax (mismatch "

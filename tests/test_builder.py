@@ -280,3 +280,21 @@ def test_ground_range_sets_the_spread_and_its_middle():
     assert sc.site.ground.conductivity_s_per_m == pytest.approx(0.004)  # geometric middle
     assert sc.site.ground.permittivity == pytest.approx(12.0)
     assert sc.site.ground_spread.conductivity_s_per_m == (0.002, 0.008)
+
+
+def test_build_sheet_says_when_the_termination_hardly_matters():
+    # A wire that loses more than 20 dB end to end returns what its far end reflects 40 dB down.
+    from snrgain.antennas import from_spec
+    from snrgain.build import build_sheet
+
+    buried = build_sheet(
+        from_spec({"family": "bog", "length": "40 m", "depth": "10 cm", "ground": "moist loam"}), 1.83e6
+    )
+    laid = build_sheet(from_spec({"family": "bog", "length": "80 m", "ground": "moist loam"}), 1.83e6)
+    assert buried["end_to_end_loss_db"] > 20 > laid["end_to_end_loss_db"]
+    assert buried["end_to_end_loss_db"] == pytest.approx(
+        from_spec({"family": "bog", "length": "40 m", "depth": "10 cm", "ground": "moist loam"})
+        .line(1.83e6)
+        .attenuation_db_per_100m
+        * 0.4
+    )
