@@ -1,4 +1,4 @@
-"""The exact propagation constant of a thin wire in the air over a lossy half-space (the full-wave modal equation).
+"""The exact propagation constant of a thin wire over or in a lossy half-space (the full-wave modal equation).
 
 A wire of radius a at height h over a homogeneous earth (k1 = n k0, n^2 =
 eps_r - j sigma / (omega eps0)) carries a current I exp(-gamma x).  With
@@ -31,6 +31,14 @@ steps converge to 1e-10.
 Where the iteration does not settle (a nearly lossless ground, where the
 mode leaks into the earth), :func:`wire_over_earth` returns None and
 snrgain.lines keeps the closed form.
+
+A wire buried in the earth (:func:`wire_in_earth`) has the same
+construction with the media exchanged: the line source in the earth and its
+TE and TM reflections at the surface seen from below; deep down it is King's
+insulated wire in a dissipative medium.  The mode is not the whole current of
+a wire driven at one point: :func:`gap_current` sums the kernel over its
+spectrum (the mode's pole taken out analytically, the rest numerically), which
+is what a current computed along a wire by NEC-2 shows.
 
 The quasi-TEM closed form of snrgain.lines (Deri's complex-depth
 impedance, the image capacitance) is what this reduces to when the earth's
@@ -85,6 +93,15 @@ def _pair(parts, edges, adaptive: bool) -> tuple[complex, complex]:
     return complex(np.dot(weights, f1)), complex(np.dot(weights, f2))
 
 
+def _pieces(marks, top):
+    """Integration edges on [0, top]: 0.3x and 3x each mark (where an integrand changes scale)."""
+    edges = {0.0, top}
+    for m in marks:
+        m = min(max(m, 1e-9), top)
+        edges |= {min(0.3 * m, top), min(3.0 * m, top)}
+    return sorted(edges)
+
+
 def earth_integrals(
     gamma: complex, freq_hz: float, height_m: float, n2: complex, *, offset_m: float = 0.0, adaptive: bool = False
 ) -> tuple[complex, complex]:
@@ -107,11 +124,7 @@ def earth_integrals(
     # The integrands fall as exp(-2 lambda h): integrate to 20 / h.  Break points: the scale of kappa0 (where u0
     # turns from kappa0 to lambda), the earth's |k1|, and 1 / 2h.
     top = 20.0 / h
-    marks = sorted({min(max(x, 1e-9), top) for x in (abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / h)})
-    edges = [0.0]
-    for m in marks:
-        edges += [0.3 * m, 3.0 * m] if m > 0 else []
-    edges = sorted({min(e, top) for e in edges} | {top})
+    edges = _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / h), top)
     total_p, total_q = _pair(parts, edges, adaptive)
     return total_p, 2 * total_p - 2 * total_q / k0**2
 
@@ -168,15 +181,6 @@ def wire_over_earth(
             return new, complex(z), complex(y)
         gamma = new if step < 20 else 0.5 * (gamma + new)  # damped after 20 steps
     return None
-
-
-def _pieces(marks, top):
-    """Integration edges on [0, top]: 0.3x and 3x each mark (where an integrand changes scale)."""
-    edges = {0.0, top}
-    for m in marks:
-        m = min(max(m, 1e-9), top)
-        edges |= {min(0.3 * m, top), min(3.0 * m, top)}
-    return sorted(edges)
 
 
 def buried_integrals(gamma: complex, freq_hz: float, depth_m: float, n2: complex, *, offset_m: float, adaptive=False):
