@@ -71,6 +71,10 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
         if term is not None:
             out["termination_ohm"] = float(term)
             out["termination_standard_ohm"] = nearest_standard_ohm(term)
+            if hasattr(antenna, "far_rod_ohm"):
+                out["far_ground_ohm"] = float(antenna.far_rod_ohm)
+    if hasattr(antenna, "feed_rod_ohm"):
+        out["feed_ground_ohm"] = float(antenna.feed_rod_ohm)
     if hasattr(antenna, "line") and hasattr(antenna, "length_m"):
         ln = antenna.line(freq_hz)
         out["velocity_factor"] = ln.velocity_factor

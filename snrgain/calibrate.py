@@ -360,8 +360,8 @@ def calibrate(
     term = turns = None
     if constants:
         z0 = abs(constants[0].z0)
-        term = max(z0 - getattr(ant.params, "far_ground", 0.0), 0.0)
-        turns = float(np.sqrt((z0 + ant.params.feed_ground) / ant.params.coax))
+        term = max(z0 - ant.far_rod_ohm, 0.0)
+        turns = float(np.sqrt((z0 + ant.feed_rod_ohm) / ant.params.coax))
     return Calibration(ant, constants, resonances, fit, term, turns)
 
 

@@ -12,10 +12,19 @@ range checks and no string parsing.
 
 from __future__ import annotations
 
-from typing import Annotated, Any
+from typing import Annotated, Any, Literal
 
 import numpy as np
-from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, InstanceOf, ValidationInfo, model_validator
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Field,
+    InstanceOf,
+    ValidationError,
+    ValidationInfo,
+    model_validator,
+)
 
 from snrgain import ground as groundmod
 from snrgain import lines
@@ -133,6 +142,41 @@ class StrictModel(BaseModel):
     """Base for every input model: unknown keys are errors."""
 
     model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
+
+
+class GroundRod(StrictModel):
+    """One driven ground rod at a wire's end; its resistance follows from the site's soil (Dwight's formula,
+    snrgain.ground.rod_resistance_ohm)."""
+
+    rod_length: quantity("length", ge=0.3, le=10.0) = 1.2
+    rod_diameter: quantity("length", ge=0.005, le=0.05) = 0.016
+
+
+_CONNECTION_RESISTANCE = quantity("resistance", ge=0.0, le=1000.0).__metadata__[0].func
+_CONNECTION_CHOICES = (
+    "a resistance such as '20 ohm', 'rod' (one 1.2 m, 16 mm rod in the site's soil) or "
+    "{ rod_length = '2.4 m', rod_diameter = '16 mm' }"
+)
+
+
+def _connection(value, info: ValidationInfo):
+    if isinstance(value, GroundRod) or (isinstance(value, str) and value == "rod"):
+        return value
+    if isinstance(value, dict):
+        try:
+            return GroundRod.model_validate(value, context=info.context)
+        except ValidationError as err:
+            first = err.errors()[0]
+            where = ".".join(str(p) for p in first["loc"])
+            raise ValueError(f"{where}: {first['msg'].removeprefix('Value error, ')}") from None
+    try:
+        return _CONNECTION_RESISTANCE(value, info)
+    except ValueError as err:
+        raise ValueError(f"expected {_CONNECTION_CHOICES}; {err}") from None
+
+
+# A wire end's connection to earth: a resistance, "rod" or a rod of given size (snrgain.ground.rod_resistance_ohm).
+GroundConnection = Annotated[float | Literal["rod"] | GroundRod, BeforeValidator(_connection)]
 
 
 class WireSize(StrictModel):

@@ -27,6 +27,18 @@ def notice_text(n: Notice) -> str:
             f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
             "element's signal by its phase) or its delays (positive: the signal comes later)"
         )
+    if n.code == "far-ground-too-high":
+        resistor = v["z0_ohm"] - v["far_ground_ohm"]
+        head = f"{n.antenna}: its far ground ({v['far_ground_ohm']:.0f} ohm) "
+        head += (
+            f"exceeds the wire's |Z0| ({v['z0_ohm']:.0f} ohm), so no resistor can terminate it"
+            if resistor <= 0
+            else f"takes up most of the wire's |Z0| ({v['z0_ohm']:.0f} ohm), leaving a {resistor:.0f} ohm resistor"
+        )
+        return (
+            head + "; a rod's resistance drifts with soil moisture and the rear null with it: lower the far ground "
+            "(longer or more rods, or a few short radials) until the resistor carries most of |Z0|"
+        )
     if n.code == "off-lot":
         far = "under 1 m" if v["outside_m"] < 1 else f"up to {v['outside_m']:.0f} m"
         return f"{n.antenna}: runs off the lot, {far} beyond its edge"

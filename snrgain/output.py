@@ -299,7 +299,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
         if b["family"] == "terminated-loop":
             bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
         if "termination_ohm" in b:
-            bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm)")
+            far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
+            bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")
             if b.get("end_to_end_loss_db", 0.0) > 20.0:
                 bits.append(
                     f"the wire loses {b['end_to_end_loss_db']:.0f} dB end to end, so the termination hardly matters"

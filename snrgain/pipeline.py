@@ -216,6 +216,11 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
                         "lobe-away-from-bearing", ant.name, {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off}
                     )
                 )
+        far = getattr(ant, "far_rod_ohm", None)
+        if far and getattr(ant, "terminated", False) and getattr(ant.params, "termination", "auto") == "auto":
+            z0 = abs(ant.line(sc.freq_hz).z0)
+            if far > 0.7 * z0:
+                out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
     from snrgain.lot import site_notices
 
     out.extend(site_notices(sc))

@@ -259,6 +259,7 @@ def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_EL
         t_fb = best_termination(spec, freq_hz, target=target, metric="front_to_back")
         out.update(
             textbook_termination_ohm=t_rdf.textbook_ohm,
+            far_ground_ohm=float(ant.far_rod_ohm),
             best_rdf_termination_ohm=t_rdf.best_ohm,
             best_front_to_back_termination_ohm=t_fb.best_ohm,
             # How much the choice matters: each figure's range over the resistors searched (50-3000 ohm).

@@ -74,3 +74,19 @@ def test_ground_rejects_bad_constants():
         Ground(0.005, 0.5)
     with pytest.raises(ValueError, match="conductivity"):
         Ground(-1.0, 13.0)
+
+
+def test_rod_resistance_dwight():
+    # Dwight's formula (Electrical Engineering 55, 1936): R = rho / (2 pi L) [ln(4L/a) - 1].  A 10 ft (3.05 m),
+    # 5/8 in (15.9 mm) rod in 100 ohm-m soil: 33 ohm; builders and electricians quote roughly 25-40 ohm for it
+    # (common practice).
+    soil = Ground(conductivity_s_per_m=0.01, permittivity=13.0)
+    r = ground.rod_resistance_ohm(soil, 3.048, 0.0159)
+    assert r == pytest.approx(100 / (2 * np.pi * 3.048) * (np.log(4 * 3.048 / 0.00795) - 1), rel=1e-9)
+    assert 25 < r < 40
+    # Invariants: inverse in the soil's conductivity, lower for a longer rod, zero over a perfect ground.
+    assert ground.rod_resistance_ohm(Ground(0.005, 13.0)) == pytest.approx(2 * ground.rod_resistance_ohm(soil))
+    assert ground.rod_resistance_ohm(soil, 2.4) < ground.rod_resistance_ohm(soil, 1.2)
+    assert ground.rod_resistance_ohm(None) == 0.0
+    with pytest.raises(ValueError, match="rod"):
+        ground.rod_resistance_ohm(soil, 0.01, 0.02)

@@ -175,6 +175,24 @@ def test_notices_are_data_and_worded_at_the_edge():
     assert limited[0].antenna in sentence and f"{limited[0].values['worst_margin_db']:.1f} dB" in sentence
 
 
+def test_far_ground_rods_set_the_resistor_and_warn_when_they_eat_z0():
+    # A BOG ended on one 1.2 m rod: in moist loam (5 mS/m) the rod is 143 ohm (Dwight) and the resistor |Z0| less
+    # that; in sandy soil (1 mS/m) the rod's 716 ohm exceeds |Z0| and the user is told to lower it.
+    bog = '\n[[candidate]]\nname = "bog"\nfamily = "bog"\nlength = "80 m"\nbearing = 45\nfar_ground = "rod"\n'
+    r = snrgain.evaluate(MINIMAL + bog)
+    b = r.candidates[-1].build
+    assert b["far_ground_ohm"] == pytest.approx(143.2, abs=0.1) and b["feed_ground_ohm"] == 20.0
+    assert b["termination_ohm"] == pytest.approx(b["z0_magnitude_ohm"] - b["far_ground_ohm"])
+    assert not [n for n in r.notices if n.code == "far-ground-too-high"]
+    sandy = snrgain.evaluate(MINIMAL.replace('ground = "moist loam"', 'ground = "sandy soil"') + bog)
+    (warn,) = [n for n in sandy.notices if n.code == "far-ground-too-high"]
+    assert warn.antenna == "bog" and warn.values["far_ground_ohm"] > warn.values["z0_ohm"]
+    assert "no resistor can terminate it" in notice_text(warn)
+    bad = MINIMAL + bog.replace('far_ground = "rod"', 'far_ground = "rods"')
+    with pytest.raises(Exception, match="far_ground"):
+        snrgain.evaluate(bad)
+
+
 def test_summary_ranks_each_target_by_median_and_repr_is_compact():
     r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
     for i, tr in enumerate(r.target_results):

@@ -68,8 +68,17 @@ from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.constants import FREQ_RANGE_HZ
-from snrgain.fields import Attenuation, Bearing, GroundField, WireSize, make_ground, quantity
-from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
+from snrgain.fields import (
+    Attenuation,
+    Bearing,
+    GroundConnection,
+    GroundField,
+    GroundRod,
+    WireSize,
+    make_ground,
+    quantity,
+)
+from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients, rod_resistance_ohm
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
 
@@ -79,7 +88,8 @@ class WireParams(WireSize, AntennaParams):
 
     length: quantity("length", ge=1.0, le=3000.0)
     bearing: Bearing = 0.0
-    feed_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
+    feed_ground: GroundConnection = 20.0
+    """The feed end's connection to earth [ohm], or "rod" / { rod_length, rod_diameter } (Dwight's formula)."""
     coax: Literal[50, 75] = 75
     turns_ratio: float | Literal["auto"] = "auto"
     velocity_factor: float | None = Field(default=None, gt=0.0, le=1.0)
@@ -106,7 +116,7 @@ class BeverageParams(WireParams):
     family: Literal["beverage"]
     height: quantity("length", gt=0.05, le=30.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
-    far_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
+    far_ground: GroundConnection = 20.0
 
 
 class UnterminatedParams(WireParams):
@@ -135,7 +145,7 @@ class BogParams(WireParams):
     insulation_thickness: quantity("length", ge=1e-5, le=0.02) = 0.8e-3
     insulation_permittivity: float = Field(default=3.0, ge=1.0, le=20.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
-    far_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
+    far_ground: GroundConnection = 20.0
 
     @model_validator(mode="after")
     def _buried(self):
@@ -153,7 +163,7 @@ class TwoWireParams(WireParams):
     height: quantity("length", gt=0.05, le=30.0)
     spacing: quantity("length", ge=0.01, le=2.0) = 0.3
     port: Literal["forward", "reverse"] = "forward"
-    far_ground: quantity("resistance", ge=0.0, le=1000.0) = 20.0
+    far_ground: GroundConnection = 20.0
 
     @model_validator(mode="after")
     def _spacing(self):
@@ -325,10 +335,22 @@ class LongWire(TransformerFeed, Antenna):
         self._cache: dict[float, lines.LineConstants] = {}
 
     # -- the line and its loads --------------------------------------------------------
+    def _connection_ohm(self, value) -> float:
+        if value == "rod":
+            return rod_resistance_ohm(self.ground)
+        if isinstance(value, GroundRod):
+            return rod_resistance_ohm(self.ground, value.rod_length, value.rod_diameter)
+        return float(value)
+
     @property
     def feed_rod_ohm(self) -> float:
-        """Resistance of the feed end's ground rod [ohm] (in series with the feed load)."""
-        return self.params.feed_ground
+        """Resistance of the feed end's ground connection [ohm] (in series with the feed load)."""
+        return self._connection_ohm(self.params.feed_ground)
+
+    @property
+    def far_rod_ohm(self) -> float:
+        """Resistance of the far end's ground connection [ohm] (in series with the termination); 0 if open."""
+        return self._connection_ohm(getattr(self.params, "far_ground", 0.0))
 
     def wire_height_m(self) -> float:
         return self.params.height
@@ -364,12 +386,12 @@ class LongWire(TransformerFeed, Antenna):
             return None
         t = self.params.termination
         if t == "auto":
-            return max(abs(self.line(freq_hz).z0) - self.params.far_ground, 0.0)
+            return max(abs(self.line(freq_hz).z0) - self.far_rod_ohm, 0.0)
         return float(t)
 
     def far_load_ohm(self, freq_hz: float):
         t = self.termination_ohm(freq_hz)
-        return None if t is None else t + self.params.far_ground
+        return None if t is None else t + self.far_rod_ohm
 
     def feed_point_impedance(self, freq_hz: float) -> complex:
         """Impedance the transformer's primary sees: the line's input impedance plus the feed ground rod [ohm]."""
@@ -542,7 +564,7 @@ class TwoWire(LongWire):
 
     def termination_ohm(self, freq_hz):
         # The reflection transformer matches the common mode to the pair's differential line.
-        return max(abs(self.line(freq_hz).z0) - self.params.far_ground, 0.0)
+        return max(abs(self.line(freq_hz).z0) - self.far_rod_ohm, 0.0)
 
     def differential_loss(self, freq_hz) -> float:
         """Power ratio over the length for the differential mode returning to the feed [-]."""

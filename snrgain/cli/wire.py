@@ -34,8 +34,18 @@ from snrgain.constants import WIRE_FAMILIES
     help="Target elevation [deg] along the wire's bearing, for RDF and the length rule.",
 )
 @click.option("--termination", default="auto", show_default=True, help="Termination resistor [ohm] or 'auto' (|Z0|).")
-@click.option("--feed-ground", default="20 ohm", show_default=True, help="Feed ground-rod resistance.")
-@click.option("--far-ground", default="20 ohm", show_default=True, help="Far ground-rod resistance.")
+@click.option(
+    "--feed-ground",
+    default="20 ohm",
+    show_default=True,
+    help="Feed end's ground: a resistance, or 'rod' (one 1.2 m rod in the soil, Dwight's formula).",
+)
+@click.option(
+    "--far-ground",
+    default="20 ohm",
+    show_default=True,
+    help="Far end's ground: a resistance, or 'rod' (one 1.2 m rod in the soil, Dwight's formula).",
+)
 @click.option(
     "--coax", type=click.Choice(["50", "75"]), default="75", show_default=True, help="Feed-line impedance [ohm]."
 )
@@ -127,12 +137,13 @@ def wire(
         if max(spans) < 0.5:
             lines_out.append(
                 f"  termination: hardly matters on this wire (RDF and front-to-back move under 0.5 dB from {lo:.0f} "
-                f"to {hi:.0f} ohm: the line's loss absorbs what the far end reflects); |Z0| less the far rod = "
-                f"{out['textbook_termination_ohm']:.0f} ohm"
+                f"to {hi:.0f} ohm: the line's loss absorbs what the far end reflects); |Z0| less the far ground "
+                f"({out['far_ground_ohm']:.0f} ohm) = {out['textbook_termination_ohm']:.0f} ohm"
             )
         else:
             lines_out.append(
-                f"  termination: |Z0| less the far rod = {out['textbook_termination_ohm']:.0f} ohm; best RDF "
+                f"  termination: |Z0| less the far ground ({out['far_ground_ohm']:.0f} ohm) = "
+                f"{out['textbook_termination_ohm']:.0f} ohm; best RDF "
                 f"{best('best_rdf_termination_ohm')} (RDF spans {spans[0]:.1f} dB over {lo:.0f}-{hi:.0f} ohm); "
                 f"best front-to-back {best('best_front_to_back_termination_ohm')} (spans {spans[1]:.1f} dB)"
             )
