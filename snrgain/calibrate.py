@@ -212,6 +212,75 @@ def fit_ground(
     return GroundFit(float(10 ** best.x[0]), float(10**log_sigma_sd), eps, eps_sd, rms, permittivity is not None)
 
 
+@dataclass(frozen=True)
+class HeightFit:
+    """How high a BOG's axis sits above the soil, fitted to the readings with the soil held at the wire's ground."""
+
+    height_m: float
+    low_m: float
+    high_m: float
+    """The heights where the misfit grows by one (a one-sigma range)."""
+    residual_rms: float
+    at_lowest: bool
+    """The best fit is the wire resting on the soil (its axis at the insulation's radius)."""
+    at_highest: bool
+
+
+HEIGHT_SEARCH_M = 0.3
+"""Highest axis height tried for a BOG [m] (the family's limit)."""
+
+
+def fit_bog_height(
+    antenna,
+    measurements: list[dict],
+    z0_ohm: list[tuple[float, float]] | None = None,
+    *,
+    vf_sigma: float = DEFAULT_VF_UNCERTAINTY,
+    attenuation_rel_sigma: float = DEFAULT_ATTENUATION_UNCERTAINTY,
+    z0_rel_sigma: float = 0.1,
+) -> HeightFit:
+    """The axis height above the soil that makes the BOG's line (its exact mode over the antenna's ground)
+    reproduce the measured velocity factors, attenuations and |Z0| (``z0_ohm``: (freq_hz, |Z0|) pairs), by
+    weighted least squares over heights from resting on the soil to :data:`HEIGHT_SEARCH_M` on a log scale.
+    Where the soil is known and the wire's height is not (grass holds it up by an amount no one can measure),
+    this is the unknown the readings pin down."""
+    lowest = antenna.params.radius_m + antenna.params.insulation_thickness
+    z0_ohm = z0_ohm or []
+
+    def misfit(h):
+        ant = variant(antenna, height=float(h), depth=0.0)
+        res = []
+        for m in measurements:
+            ln = ant.computed_line(m["freq_hz"])
+            res.append((ln.velocity_factor - m["velocity_factor"]) / vf_sigma)
+            a = m.get("attenuation_db_per_100m")
+            if a is not None:
+                res.append((ln.attenuation_db_per_100m - a) / (attenuation_rel_sigma * max(a, 1e-3)))
+        for f, z in z0_ohm:
+            res.append((abs(ant.computed_line(f).z0) - z) / (z0_rel_sigma * z))
+        return np.array(res)
+
+    heights = np.geomspace(lowest, HEIGHT_SEARCH_M, 41)
+    chi2 = np.array([float(np.sum(misfit(h) ** 2)) for h in heights])
+    i = int(np.argmin(chi2))
+    lo_i, hi_i = max(i - 1, 0), min(i + 1, len(heights) - 1)
+    from scipy.optimize import minimize_scalar
+
+    best = minimize_scalar(
+        lambda t: float(np.sum(misfit(np.exp(t)) ** 2)),
+        bounds=(np.log(heights[lo_i]), np.log(heights[hi_i])),
+        method="bounded",
+        options={"xatol": 1e-3},
+    )
+    h = float(np.exp(best.x))
+    c_min = float(best.fun)
+    inside = heights[chi2 <= c_min + 1.0]
+    low = float(min(inside.min(), h)) if inside.size else h
+    high = float(max(inside.max(), h)) if inside.size else h
+    n = max(len(misfit(h)), 1)
+    return HeightFit(h, low, high, float(np.sqrt(c_min / n)), i == 0, i == len(heights) - 1)
+
+
 EXAMPLE = """\
 # Readings of a laid wire, taken at its feed end with an antenna analyser.
 [wire]                      # the wire as built: any keys of its family
@@ -303,6 +372,8 @@ class Calibration:
     fit: GroundFit
     suggested_termination_ohm: float | None
     suggested_turns_ratio: float | None
+    height_fit: HeightFit | None = None
+    """For a BOG on the surface: its axis height over the wire's ground that fits the readings."""
 
     def as_dict(self) -> dict:
         """JSON-ready (SI units in the keys)."""
@@ -324,6 +395,17 @@ class Calibration:
         if self.suggested_termination_ohm is not None:
             out["suggested_termination_ohm"] = self.suggested_termination_ohm
             out["suggested_turns_ratio"] = self.suggested_turns_ratio
+        if self.height_fit is not None:
+            h = self.height_fit
+            out["fitted_height"] = {
+                "ground": self.antenna.describe().get("ground"),
+                "height_m": h.height_m,
+                "low_m": h.low_m,
+                "high_m": h.high_m,
+                "residual_rms": h.residual_rms,
+                "resting_on_soil": h.at_lowest,
+                "at_search_limit": h.at_highest,
+            }
         return out
 
 
@@ -362,7 +444,10 @@ def calibrate(
         z0 = abs(constants[0].z0)
         term = max(z0 - ant.far_rod_ohm, 0.0)
         turns = float(np.sqrt((z0 + ant.feed_rod_ohm) / ant.params.coax))
-    return Calibration(ant, constants, resonances, fit, term, turns)
+    height = None
+    if ant.family == "bog" and not ant.params.depth > 0:
+        height = fit_bog_height(ant, measured, [(ln.freq_hz, abs(ln.z0)) for ln in constants])
+    return Calibration(ant, constants, resonances, fit, term, turns, height)
 
 
 def with_ground(text: str, value: str) -> str:

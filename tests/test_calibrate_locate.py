@@ -42,6 +42,23 @@ def test_open_short_inversion_recovers_the_line(family, length, vf_hint):
     assert got.z0 == pytest.approx(ln.z0, rel=1e-9)
 
 
+@pytest.mark.parametrize("height, resting, vf_hint", [("5 cm", False, 0.7), ("on soil", True, 0.4)])
+def test_bog_height_recovered_from_its_own_readings(height, resting, vf_hint):
+    # Round trip: open/short readings made from the model's own line at 1.83 and 3.6 MHz for a BOG at a known
+    # height over moist loam; fitting the height with the soil held gives it back (and says so when it rests on
+    # the soil), with a misfit of zero.
+    spec = {"family": "bog", "length": "60 m", "ground": "moist loam", "height": height}
+    truth = from_spec(spec)
+    pairs = [cal.OpenShort(f, *_readings_of(truth.line(f), 60.0)) for f in (1.83e6, 3.6e6)]
+    laid = from_spec({**spec, "height": "2 cm"})  # what the builder wrote down
+    res = cal.calibrate(cal.WireReadings(laid, pairs), expected_velocity_factor=vf_hint)
+    h = res.height_fit
+    assert h.at_lowest is resting and h.residual_rms < 0.05
+    if not resting:
+        assert h.height_m == pytest.approx(0.05, rel=0.02) and h.low_m < 0.05 < h.high_m
+    assert "fitted_height" in res.as_dict()
+
+
 def test_branch_unwrapped_over_frequency():
     ant = from_spec({"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"})
     freqs = [1.0e6, 1.4e6, 1.83e6, 2.5e6, 3.6e6]

@@ -108,6 +108,19 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         f"{g['residual_rms']:.2f} (in measurement uncertainties)"
     )
     lines_out.append(f"  scenario: [site] ground = {res.fit.scenario_value()}")
+    if res.height_fit is not None:
+        h = res.height_fit
+        over = out["fitted_height"]["ground"]
+        if h.at_lowest:
+            where = "rests on the soil (and the soil is wetter, or the wire slower, than the model has it)"
+        elif h.at_highest:
+            where = f"sits {100 * h.height_m:.0f} cm up or more, more than grass holds a wire: the soil is drier"
+        else:
+            where = (
+                f"sits {100 * h.height_m:.1f} cm above the soil ({100 * h.low_m:.1f}-{100 * h.high_m:.1f} cm), "
+                "the height grass and litter hold it at"
+            )
+        lines_out.append(f"  or, over {over} as given: the wire's axis {where}; residual rms {h.residual_rms:.2f}")
     if res.suggested_termination_ohm is not None:
         lines_out.append(
             f"  suggested termination {res.suggested_termination_ohm:.0f} ohm (|Z0| less the far rod); "
