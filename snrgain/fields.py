@@ -148,8 +148,8 @@ class GroundRod(StrictModel):
     """One driven ground rod at a wire's end; its resistance follows from the site's soil (Dwight's formula,
     snrgain.ground.rod_resistance_ohm)."""
 
-    rod_length: quantity("length", ge=0.3, le=10.0) = 1.2
-    rod_diameter: quantity("length", ge=0.005, le=0.05) = 0.016
+    rod_length: quantity("length", ge=0.3, le=10.0) = groundmod.ROD_LENGTH_M
+    rod_diameter: quantity("length", ge=0.005, le=0.05) = groundmod.ROD_DIAMETER_M
 
 
 _CONNECTION_RESISTANCE = quantity("resistance", ge=0.0, le=1000.0).__metadata__[0].func
