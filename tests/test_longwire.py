@@ -46,6 +46,15 @@ def _figures(ant, f):
     }
 
 
+def _assert_agrees(got, case, *, rdf_db=0.5, fb_db=2.0):
+    """The model's figures beside a stored NEC-2 case: RDF, forward gain within 1 dB, front-to-back (unless both
+    are deeper than 20 dB)."""
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=rdf_db)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.0)
+    if not (got["front_to_back_db"] > 20 and case["front_to_back_db"] > 20):
+        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=fb_db)
+
+
 def _compare(case):
     """The model beside nec2c for one stored case.
 
@@ -379,23 +388,10 @@ def test_against_nec2_with_the_junction_taken_out(case):
     # Tolerances: RDF 0.5 dB, forward gain 1 dB, front-to-back 2 dB or both deeper than 20 dB (measured: RDF
     # 0.02-0.38 dB, gain 0.05-0.90 dB, F/B 0.0-0.6 dB but for the outliers named above).
     f = case["freq_mhz"] * 1e6
-    ant = from_spec(
-        {
-            "family": "beverage",
-            "length": f"{case['length_m']} m",
-            "height": f"{case['height_m']} m",
-            "diameter": f"{2 * case['radius_m']} m",
-            "termination": case["termination_ohm"],
-            "feed_ground": 0,
-            "far_ground": 0,
-            "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
-        }
+    ant = _model(case, termination=case["termination_ohm"])
+    _assert_agrees(
+        _figures(ant, f), case, rdf_db=_RDF_WIDER.get(case["name"], 0.5), fb_db=_FB_WIDER.get(case["name"], 2.0)
     )
-    got = _figures(ant, f)
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=_RDF_WIDER.get(case["name"], 0.5))
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.0)
-    if not (got["front_to_back_db"] > 20 and case["front_to_back_db"] > 20):
-        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=_FB_WIDER.get(case["name"], 2.0))
 
 
 def test_the_named_outliers_are_where_nec_has_not_settled():
@@ -417,18 +413,7 @@ def test_the_named_outliers_are_where_nec_has_not_settled():
     for name in ("f360-l70-h12-s1ms-deemb", "f183-l150-h3-s1ms-r300-deemb"):
         case = cases[name]
         f = case["freq_mhz"] * 1e6
-        ant = from_spec(
-            {
-                "family": "beverage",
-                "length": f"{case['length_m']} m",
-                "height": f"{case['height_m']} m",
-                "diameter": f"{2 * case['radius_m']} m",
-                "termination": case["termination_ohm"],
-                "feed_ground": 0,
-                "far_ground": 0,
-                "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
-            }
-        )
+        ant = _model(case, termination=case["termination_ohm"])
         departure = abs(_figures(ant, f)["front_to_back_db"] - case["front_to_back_db"])
         assert 2.0 < departure < spread(name, "front_to_back_db")
     rdf = [r["rdf_db"] for r in checks["f710-l36-h2-s30ms-deemb"]]
@@ -446,23 +431,8 @@ def test_against_nec2_beverages_of_builders_lengths(case):
     # wavelengths, the junction taken out as above (tests/nec/make_long.py).  Tolerances as above, RDF 0.5 dB,
     # gain 1 dB, front-to-back 2 dB (measured: RDF 0.00-0.11 dB, gain 0.01-0.43 dB, F/B 0.3-1.5 dB).
     f = case["freq_mhz"] * 1e6
-    ant = from_spec(
-        {
-            "family": "beverage",
-            "length": f"{case['length_m']} m",
-            "height": f"{case['height_m']} m",
-            "diameter": f"{2 * case['radius_m']} m",
-            "termination": case["termination_ohm"],
-            "feed_ground": 0,
-            "far_ground": 0,
-            "ground": {"conductivity": f"{case['conductivity_s_per_m']} S/m", "permittivity": case["permittivity"]},
-        }
-    )
-    got = _figures(ant, f)
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.5)
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.0)
-    if not (got["front_to_back_db"] > 20 and case["front_to_back_db"] > 20):
-        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=2.0)
+    ant = _model(case, termination=case["termination_ohm"])
+    _assert_agrees(_figures(ant, f), case)
 
 
 def test_the_engine_fix_changes_nothing_below_a_wavelength():

@@ -75,51 +75,46 @@ def deembedded_deck(deck: str, termination_ohm: float, r_j: float) -> tuple[str,
     return out, nl
 
 
+GEOMETRY = ("freq_mhz", "length_m", "height_m", "radius_m", "permittivity", "conductivity_s_per_m")
+
+
+def deembedded_run(case: dict, work: Path, *, name: str, segments_per_wavelength: int = 40, engine: str = "nec2c"):
+    """Run one terminated wire (``case``: GEOMETRY and termination_ohm) with NEC's junction taken out: its deck,
+    the stub that measures the junction, the subtraction.  Returns (the de-embedded deck, lead segments, junction
+    resistance [ohm], nec2c's output of the de-embedded deck)."""
+    geometry = {k: case[k] for k in GEOMETRY}
+    deck = beverage_deck(
+        **geometry, termination_ohm=case["termination_ohm"], segments_per_wavelength=segments_per_wavelength
+    )
+    nl = int(re.search(r"^GW 1 (\d+)", deck, re.M).group(1))
+    stub = stub_deck(
+        freq_mhz=case["freq_mhz"],
+        height_m=case["height_m"],
+        segments=nl,
+        radius_m=case["radius_m"],
+        permittivity=case["permittivity"],
+        conductivity_s_per_m=case["conductivity_s_per_m"],
+    )
+    r_j = junction_ohm(run_nec2c(stub, work, "stub", engine))
+    deck_d, _ = deembedded_deck(deck, case["termination_ohm"], r_j)
+    return deck_d, nl, r_j, run_nec2c(deck_d, work, name, engine)
+
+
 def main():
     ref = json.loads((HERE / "reference.json").read_text())
     out = {"engine": "nec2c (NEC-2 in C, Debian package nec2c)", "elevation_deg": 20.0, "cases": []}
     with tempfile.TemporaryDirectory() as tmp:
         work = Path(tmp)
         for case in ref["cases"] + ref["sweep"]:
-            deck = beverage_deck(
-                freq_mhz=case["freq_mhz"],
-                length_m=case["length_m"],
-                height_m=case["height_m"],
-                radius_m=case["radius_m"],
-                permittivity=case["permittivity"],
-                conductivity_s_per_m=case["conductivity_s_per_m"],
-                termination_ohm=case["termination_ohm"],
-            )
-            nl = int(re.search(r"^GW 1 (\d+)", deck, re.M).group(1))
-            stub = stub_deck(
-                freq_mhz=case["freq_mhz"],
-                height_m=case["height_m"],
-                segments=nl,
-                radius_m=case["radius_m"],
-                permittivity=case["permittivity"],
-                conductivity_s_per_m=case["conductivity_s_per_m"],
-            )
-            r_j = junction_ohm(run_nec2c(stub, work, "stub"))
-            deck_d, _ = deembedded_deck(deck, case["termination_ohm"], r_j)
             name = f"{case['name']}-deemb"
+            deck_d, nl, r_j, text = deembedded_run(case, work, name=name)
             (HERE / "cases" / f"{name}.nec").write_text(deck_d)
-            res = parse_output(run_nec2c(deck_d, work, name))
+            res = parse_output(text)
             met = metrics(res["theta_deg"], res["phi_deg"], res["gain_dbi"])
             z = res["feed_impedance_ohm"]
             out["cases"].append(
                 {
-                    **{
-                        k: case[k]
-                        for k in (
-                            "freq_mhz",
-                            "length_m",
-                            "height_m",
-                            "radius_m",
-                            "permittivity",
-                            "conductivity_s_per_m",
-                            "termination_ohm",
-                        )
-                    },
+                    **{k: case[k] for k in (*GEOMETRY, "termination_ohm")},
                     "name": name,
                     "deck": f"cases/{name}.nec",
                     "junction_ohm": round(r_j, 2),
@@ -146,28 +141,8 @@ def _check_cases(ref):
 def segmentation_check(case, work: Path) -> dict:
     runs = []
     for spl in CHECK_SEGMENTS_PER_WAVELENGTH:
-        deck = beverage_deck(
-            freq_mhz=case["freq_mhz"],
-            length_m=case["length_m"],
-            height_m=case["height_m"],
-            radius_m=case["radius_m"],
-            permittivity=case["permittivity"],
-            conductivity_s_per_m=case["conductivity_s_per_m"],
-            termination_ohm=case["termination_ohm"],
-            segments_per_wavelength=spl,
-        )
-        nl = int(re.search(r"^GW 1 (\d+)", deck, re.M).group(1))
-        stub = stub_deck(
-            freq_mhz=case["freq_mhz"],
-            height_m=case["height_m"],
-            segments=nl,
-            radius_m=case["radius_m"],
-            permittivity=case["permittivity"],
-            conductivity_s_per_m=case["conductivity_s_per_m"],
-        )
-        r_j = junction_ohm(run_nec2c(stub, work, "stub"))
-        deck_d, _ = deembedded_deck(deck, case["termination_ohm"], r_j)
-        res = parse_output(run_nec2c(deck_d, work, "check"))
+        _, nl, r_j, text = deembedded_run(case, work, name="check", segments_per_wavelength=spl)
+        res = parse_output(text)
         met = metrics(res["theta_deg"], res["phi_deg"], res["gain_dbi"])
         runs.append(
             {

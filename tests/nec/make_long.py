@@ -33,10 +33,10 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 sys.path.insert(0, str(HERE.parents[1]))
 
-from make_deembedded import deembedded_deck, junction_ohm, stub_deck  # noqa: E402
+from make_deembedded import deembedded_run  # noqa: E402
 from make_modal_fits import fit_gamma, wire_currents  # noqa: E402
 from make_reference import RADIUS_M, auto_termination  # noqa: E402
-from necdeck import beverage_deck, metrics, parse_output, patched_engine, run_nec2c  # noqa: E402
+from necdeck import metrics, parse_output, patched_engine, run_nec2c  # noqa: E402
 
 C_MHZ_M = 299.792458
 
@@ -96,33 +96,23 @@ def engine_check(work: Path, engine: str) -> dict:
 
 def beverage(work: Path, engine: str, f, length, h, eps, sigma) -> dict:
     term = auto_termination(f, length, h, eps, sigma)
-    deck = beverage_deck(
-        freq_mhz=f,
-        length_m=length,
-        height_m=h,
-        radius_m=RADIUS_M,
-        permittivity=eps,
-        conductivity_s_per_m=sigma,
-        termination_ohm=term,
-    )
-    nl = int(deck.split("GW 1 ", 1)[1].split()[0])
-    stub = stub_deck(
-        freq_mhz=f, height_m=h, segments=nl, radius_m=RADIUS_M, permittivity=eps, conductivity_s_per_m=sigma
-    )
-    r_j = junction_ohm(run_nec2c(stub, work, "stub", engine))
-    deck_d, _ = deembedded_deck(deck, term, r_j)
-    name = _name("bev", f, length, h, sigma)
-    (HERE / "cases" / f"{name}.nec").write_text(deck_d)
-    met, z = _figures(run_nec2c(deck_d, work, name, engine))
-    return {
-        "name": name,
-        "deck": f"cases/{name}.nec",
+    case = {
         "freq_mhz": f,
         "length_m": length,
         "height_m": h,
         "radius_m": RADIUS_M,
         "permittivity": eps,
         "conductivity_s_per_m": sigma,
+        "termination_ohm": term,
+    }
+    name = _name("bev", f, length, h, sigma)
+    deck_d, nl, r_j, text = deembedded_run(case, work, name=name, engine=engine)
+    (HERE / "cases" / f"{name}.nec").write_text(deck_d)
+    met, z = _figures(text)
+    return {
+        "name": name,
+        "deck": f"cases/{name}.nec",
+        **case,
         "termination_ohm": round(term, 3),
         "junction_ohm": round(r_j, 2),
         "lead_segments": nl,
