@@ -147,6 +147,19 @@ class GroundFit:
         )
 
 
+def _misfit(line_at, measurements: list[dict], vf_sigma: float, attenuation_rel_sigma: float) -> list[float]:
+    """Model minus measurement in measurement uncertainties: each velocity factor, and each attenuation given;
+    ``line_at(freq_hz)`` gives the model's line."""
+    res = []
+    for m in measurements:
+        ln = line_at(m["freq_hz"])
+        res.append((ln.velocity_factor - m["velocity_factor"]) / vf_sigma)
+        a = m.get("attenuation_db_per_100m")
+        if a is not None:
+            res.append((ln.attenuation_db_per_100m - a) / (attenuation_rel_sigma * max(a, 1e-3)))
+    return res
+
+
 def fit_ground(
     model_line,
     measurements: list[dict],
@@ -176,14 +189,7 @@ def fit_ground(
         sigma = 10 ** p[0]
         eps = permittivity if permittivity is not None else p[1]
         g = Ground(sigma, float(np.clip(eps, 1.0, 100.0)))
-        res = []
-        for m in measurements:
-            ln = line(m["freq_hz"], g)
-            res.append((ln.velocity_factor - m["velocity_factor"]) / vf_sigma)
-            a = m.get("attenuation_db_per_100m")
-            if a is not None:
-                res.append((ln.attenuation_db_per_100m - a) / (attenuation_rel_sigma * max(a, 1e-3)))
-        return np.array(res)
+        return np.array(_misfit(lambda f: line(f, g), measurements, vf_sigma, attenuation_rel_sigma))
 
     starts = [(-3.0, 5.0), (-2.3, 13.0), (-1.5, 25.0), (-3.7, 3.0)]
     best = None
@@ -249,13 +255,7 @@ def fit_bog_height(
 
     def misfit(h):
         ant = variant(antenna, height=float(h), depth=0.0)
-        res = []
-        for m in measurements:
-            ln = ant.computed_line(m["freq_hz"])
-            res.append((ln.velocity_factor - m["velocity_factor"]) / vf_sigma)
-            a = m.get("attenuation_db_per_100m")
-            if a is not None:
-                res.append((ln.attenuation_db_per_100m - a) / (attenuation_rel_sigma * max(a, 1e-3)))
+        res = _misfit(ant.computed_line, measurements, vf_sigma, attenuation_rel_sigma)
         for f, z in z0_ohm:
             res.append((abs(ant.computed_line(f).z0) - z) / (z0_rel_sigma * z))
         return np.array(res)
