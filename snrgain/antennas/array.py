@@ -182,6 +182,9 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
 
 @register("array", ArrayParams, "elements of one family at positions, combined with delays (optimised or given)")
 class Array(Antenna):
+    fixed_ground = True
+    phased = True
+
     def __init__(self, params: ArrayParams):
         super().__init__(params)
         self.elements: list[Antenna] = []
@@ -434,6 +437,8 @@ def placement_problems(positions, amplitudes) -> list[tuple[str, str]]:
 
 @register("phased-verticals", PhasedVerticalsParams, "verticals at positions, phased (optimised, end-fire or given)")
 class PhasedVerticals(Array):
+    fixed_ground = False
+
     def __init__(self, params: PhasedVerticalsParams):
         elements = []
         for i, pos in enumerate(params.positions):

@@ -42,6 +42,26 @@ class Antenna(ABC):
     family: ClassVar[str]
     params: AntennaParams
 
+    # -- capabilities: what the family can do, declared here and read everywhere (no family-name lists) --------
+    placeable: ClassVar[bool] = False
+    """It stands at a ``position`` on the lot that the layout search may move."""
+    long_wire: ClassVar[bool] = False
+    """A wire of the transmission-line model (wire design report, calibration from analyser readings)."""
+    integrates_near_sources: ClassVar[bool] = False
+    """A placed source's field is summed along its length (else it hears a source at one point, its feed)."""
+    fixed_ground: ClassVar[bool] = False
+    """It keeps its own ground when the site's ground is varied (pattern tables, element arrays, isotropic)."""
+    phased: ClassVar[bool] = False
+    """Its lobe is set by phases or delays, so the lobe can point away from its ``bearing`` (arrays)."""
+    composite: ClassVar[bool] = False
+    """It is made of other antennas of the scenario (a combination through a phasing unit)."""
+    buildable: ClassVar[bool] = True
+    """Something a builder can put up (the isotropic test antenna is not)."""
+    uses_sky: bool = False
+    """Its setting is chosen under the scenario's own noise sky (a stage of the pipeline returns it set)."""
+    sky_order: ClassVar[int] = 0
+    """Order in which antennas are set under the sky: a composite after the parts it holds."""
+
     def __init__(self, params: AntennaParams):
         self.params = params
 

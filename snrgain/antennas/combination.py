@@ -57,6 +57,9 @@ class CombinationParams(AntennaParams):
 class Combination(_Array):
     """Built from its parameters, then given its two parts by the scenario (:meth:`attach`)."""
 
+    composite = True
+    phased = False
+
     def __init__(self, params: CombinationParams):  # noqa: D107 - the parts come later
         self.params = params
         self.elements = []

@@ -19,6 +19,9 @@ class IsotropicParams(AntennaParams):
 
 @register("isotropic", IsotropicParams, "0 dBi everywhere above the horizon (for tests and comparison)")
 class Isotropic(Antenna):
+    fixed_ground = True
+    buildable = False
+
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         half = np.where(above_horizon(el), 0.5, 0.0)

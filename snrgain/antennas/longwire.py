@@ -324,6 +324,10 @@ def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, po
 class LongWire(TransformerFeed, Antenna):
     """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
+    placeable = True
+    long_wire = True
+    integrates_near_sources = True
+
     has_leads = True
     terminated = True
 
@@ -550,6 +554,8 @@ class Bog(LongWire):
 @register("two-wire", TwoWireParams, "terminated wire pair serving both directions (forward or reverse port)")
 class TwoWire(LongWire):
     """Two-wire bidirectional long wire; see the module docstring."""
+
+    integrates_near_sources = False  # its reverse port runs through the reflection transformer: it hears at its feed
 
     def computed_line(self, freq_hz, ground=None):
         p = self.params

@@ -58,6 +58,8 @@ class SmallLoopParams(WireSize, AntennaParams):
 
 @register("small-loop", SmallLoopParams, "small unterminated loop in a vertical plane (figure-eight, for nulling)")
 class SmallLoop(Antenna):
+    placeable = True
+
     def __init__(self, params: SmallLoopParams):
         super().__init__(params)
         self.ground = make_ground(params.ground)

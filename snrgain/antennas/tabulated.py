@@ -109,6 +109,8 @@ def _grid(path, cols):
 
 @register("tabulated", TabulatedParams, "pattern read from a CSV table of azimuth, elevation and gain")
 class Tabulated(Antenna):
+    fixed_ground = True
+
     def __init__(self, params: TabulatedParams):
         super().__init__(params)
         self.path = Path(params.file)

@@ -85,6 +85,8 @@ def loop_line(freq_hz: float, *, radius_m: float, spacing_m: float) -> lines.Lin
 class TerminatedLoop(TransformerFeed, Antenna):
     """See the module docstring."""
 
+    placeable = True
+
     def __init__(self, params: TerminatedLoopParams):
         super().__init__(params)
         self.ground = make_ground(params.ground)

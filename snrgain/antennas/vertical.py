@@ -70,6 +70,8 @@ class VerticalParams(AntennaParams):
 class Vertical(Antenna):
     """Vertical monopole; see the module docstring for the model."""
 
+    placeable = True
+
     def __init__(self, params: VerticalParams):
         super().__init__(params)
         self.height_m = params.height

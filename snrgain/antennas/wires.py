@@ -160,6 +160,8 @@ def _engine():
 class WireStructure(TransformerFeed, Antenna):
     """See the module docstring."""
 
+    fixed_ground = True
+
     def __init__(self, params: WireStructureParams):
         super().__init__(params)
         self.ground = make_ground(params.ground)
