@@ -34,9 +34,6 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from snrgain import placed as placedmod
-from snrgain import snr
-from snrgain.constants import WIRE_FAMILIES
 from snrgain.lot import footprint, polygon, tx_clearance_m
 
 BEARING_STEP_RAD = float(np.radians(5.0))
@@ -71,16 +68,17 @@ class Layout:
     targets: tuple[str, ...]
 
     @property
-    def total_db(self) -> float:
-        return float(sum(self.snr_gain_db))
+    def worth_db(self) -> float:
+        """The layout's worth [dB]: the mean over its candidates of each one's SNR gain toward its target as a power
+        ratio (as the station plan weighs targets; dB are never added or averaged over targets)."""
+        return float(10 * np.log10(np.mean(10 ** (np.asarray(self.snr_gain_db) / 10))))
 
 
 class Problem:
     """A scenario's layout problem: the lot, the keep-outs, the placeable candidates and the shared sky."""
 
     def __init__(self, sc, data: dict, *, base_dir=None):
-        from noisemodels.sphere import upper_hemisphere
-        from snrgain.pipeline import build_sky, nearest_target, target_masks
+        from snrgain.pipeline import nearest_target
 
         if not sc.placeable:
             raise ValueError("layout: no candidate has a place table (place = { bearing = [...], length = [...] })")
@@ -107,32 +105,25 @@ class Problem:
                     f"candidate {n!r}.place.length: the shortest length, {pl.length[0]:g} m, cannot fit a lot "
                     f"{self.extent_m:.0f} m across at its widest"
                 )
-        self.grid = upper_hemisphere(16 if sc.nside > 16 else sc.nside)
-        ref_gains = snr.antenna_gains([sc.reference], sc.freq_hz, self.grid, sc.targets)
-        self.skies = build_sky(sc, self.grid, ref_gains)
-        ref_temps = placedmod.apply(sc, [sc.reference], snr.sky_temperatures(ref_gains, self.skies), self.skies)
-        self.masks = target_masks(sc)
+        from snrgain import pipeline
+
+        sc = self.sc = pipeline.resolve_sources(sc)
+        self.grid = pipeline.sky_grid(sc)
+        self.skies = pipeline.build_sky(sc, self.grid)
+        self.ref = pipeline.products(sc, [sc.reference], self.grid, self.skies)
         self.placed = [s for s in sc.noise.local if s.position_m is not None]
-        self.placed_rows = [self.skies.names.index(s.name) for s in self.placed]
         self.ref_m = sc.reference.params.position or (0.0, 0.0)
-        ground = sc.site.ground
-        self.p_ref = [placedmod.received_power(sc.reference, s, sc.freq_hz, self.ref_m, ground) for s in self.placed]
-        self.t_ref_src = [ref_temps.by_component[c, 0] for c in self.placed_rows]  # (months, hours) each
-        t_chain = np.array([c.temperature_k for c in sc.chains])
-        self.t_chain = [t_chain[1 + k] for k in self.index]
-        ref_noise = ref_temps.total[0] + t_chain[0]
-        self.ref_snr = ref_gains.toward[0][:, None, None] / ref_noise[None]  # (targets, months, hours)
         self.target = []
         for pl, ant in zip(self.places, self.base):
             b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
             self.target.append(nearest_target(sc, b))
         self.tx = None
-        if sc.reference.family == "vertical":
+        if sc.reference.placeable and not sc.reference.long_wire:  # the TX vertical (or loop) next door
             from shapely.geometry import Point
 
             self.tx = Point(*self.ref_m)
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
-        fixed = [a for a in sc.candidates if a.name not in self.names and a.family in WIRE_FAMILIES]
+        fixed = [a for a in sc.candidates if a.name not in self.names and a.long_wire]
         self.fixed_wires = [w for w in map(footprint, fixed) if w is not None]
         self._sky: dict[tuple, tuple] = {}
 
@@ -155,9 +146,11 @@ class Problem:
             spec, f"candidate {name!r}", site_ground=site_ground, base_dir=self.base_dir, freq_hz=self.sc.freq_hz
         )
 
-    def sky_part(self, i: int, bearing_rad: float, length_m: float | None):
-        """(antenna, signal toward its target, noise temperature from everything but the placed sources (months,
-        hours) [K]), cached per design."""
+    def design_products(self, i: int, bearing_rad: float, length_m: float | None):
+        """(antenna, products of [reference, antenna]) for a (bearing, length) of candidate i, made once through the
+        pipeline's stages; other positions reuse its gains (a placed antenna's far field does not move)."""
+        from snrgain import pipeline
+
         key = (
             i,
             None if bearing_rad is None else round(float(bearing_rad), 9),
@@ -166,26 +159,25 @@ class Problem:
         hit = self._sky.get(key)
         if hit is None:
             ant = self.antenna(i, bearing_rad, length_m)
-            g = snr.antenna_gains([ant], self.sc.freq_hz, self.grid, self.sc.targets)
-            t = snr.sky_temperatures(g, self.skies)
-            rows = [r for r in range(len(self.skies.names)) if r not in self.placed_rows]
-            t_np = t.by_component[rows, 0].sum(axis=0) + self.t_chain[i]
-            hit = self._sky[key] = (ant, float(g.toward[0, self.target[i]]), t_np)
+            sub = self.sub(i, ant)
+            hit = self._sky[key] = (ant, pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref))
         return hit
 
+    def sub(self, i: int, ant):
+        """The scenario holding the reference and candidate i as ``ant`` (its own chain)."""
+        k = self.index[i]
+        return replace(self.sc, candidates=(ant,), chains=(self.sc.chains[0], self.sc.chains[1 + k]))
+
     def snr_gain_db(self, d: Design, i: int) -> float:
-        """Nominal SNR gain [dB] over the reference toward candidate i's target, the design standing at its place."""
-        ant, signal, noise = self.sky_part(i, d.bearing_rad, d.length_m)
-        noise = noise.copy()
-        for src, p_ref, t_src in zip(self.placed, self.p_ref, self.t_ref_src):
-            p = placedmod.received_power(
-                ant, src, self.sc.freq_hz, self.ref_m, self.sc.site.ground, at_m=(d.east_m, d.north_m)
-            )
-            noise = noise + t_src * (p / p_ref)
-        t = self.target[i]
-        with np.errstate(divide="ignore"):
-            cells = 10 * np.log10((signal / noise) / self.ref_snr[t])
-        return float(np.mean(cells[self.masks[t]]))
+        """Candidate i's SNR gain [dB] over the reference toward its target, the design standing at its place: the
+        ranking's statistic (the median over the target's hours), without the spreads, through the same stages."""
+        from snrgain import pipeline
+
+        ant0, known = self.design_products(i, d.bearing_rad, d.length_m)
+        ant = ant0.at((d.east_m, d.north_m))
+        sub = self.sub(i, ant)
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known) if self.placed else known
+        return float(pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1, self.target[i]])
 
     # -- geometry -----------------------------------------------------------------------------------------------
 
@@ -228,7 +220,7 @@ class Problem:
             bearings = [float(np.mod(lo + span * t, 2 * np.pi)) for t in np.linspace(0, 1, n)]
         else:
             bearings = [_bearing_of(ant)]
-        if ant.family in WIRE_FAMILIES:
+        if ant.long_wire:
             lengths = (
                 [float(x) for x in np.linspace(*pl.length, LENGTHS_PER_RANGE)]
                 if pl.length is not None
@@ -277,7 +269,7 @@ class Problem:
 
         ranked = sorted(
             itertools.product(*[range(len(p)) for p in per]),
-            key=lambda ix: -sum(per[i][j][0] for i, j in enumerate(ix)),
+            key=lambda ix: -Layout((), tuple(per[i][j][0] for i, j in enumerate(ix)), ()).worth_db,
         )
         chosen = []
         for ix in ranked:
@@ -293,7 +285,7 @@ class Problem:
             )
         layouts = [self._layout(designs) for designs in chosen]
         layouts[0] = self.refine(layouts[0])
-        layouts.sort(key=lambda lay: -lay.total_db)
+        layouts.sort(key=lambda lay: -lay.worth_db)
         return layouts
 
     def _layout(self, designs) -> Layout:
@@ -340,7 +332,7 @@ class Problem:
         def cost(x):
             ds = designs_of(np.clip(x, [b[0] for b in bounds], [b[1] for b in bounds]))
             v = sum(self.violation_m(d, ds[:j]) for j, d in enumerate(ds))
-            return -sum(self.snr_gain_db(d, i) for i, d in enumerate(ds)) + 3.0 * v
+            return -Layout((), tuple(self.snr_gain_db(d, i) for i, d in enumerate(ds)), ()).worth_db + 3.0 * v
 
         res = minimize(
             cost,
@@ -352,7 +344,7 @@ class Problem:
         ds = designs_of(np.clip(res.x, [b[0] for b in bounds], [b[1] for b in bounds]))
         if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
             cand = self._layout(ds)
-            if cand.total_db > start.total_db:
+            if cand.worth_db > start.worth_db:
                 return cand
         return start
 
@@ -369,7 +361,7 @@ class Problem:
                     lo, hi = pl.bearing
                     b = float(np.mod(lo + rng.uniform() * (np.mod(hi - lo, 2 * np.pi)), 2 * np.pi))
                 ln = None
-                if ant.family in WIRE_FAMILIES:
+                if ant.long_wire:
                     ln = float(rng.uniform(*pl.length)) if pl.length is not None else ant.length_m
                 ds.append(Design(self.names[i], float(rng.uniform(minx, maxx)), float(rng.uniform(miny, maxy)), b, ln))
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
@@ -430,7 +422,7 @@ def as_dict(layouts: list[Layout]) -> dict:
     return {
         "layouts": [
             {
-                "total_snr_gain_db": lay.total_db,
+                "worth_db": lay.worth_db,
                 "candidates": [
                     {
                         "name": d.name,

@@ -161,7 +161,6 @@ def static_components(
     was read on, through a chain of gain ``reference_chain_gain_db``, as an S-meter shows it.
     """
     from noisemodels import sky
-    from snrgain.receiver import power_dbm
 
     out = []
     mm = settings.man_made
@@ -181,36 +180,61 @@ def static_components(
         )
     for src in settings.local:
         if src.fa_db is not None:
-            out.append(
-                sky.compact_component(
-                    src.name,
-                    level=p372.NoiseLevel(src.fa_db, 0.0, 0.0),
-                    azimuth_rad=src.bearing_rad,
-                    elevation_rad=src.elevation_rad,
-                    spread_rad=src.spread_rad,
-                )
-            )
-            continue
-        if reference_gain is None:
+            fa = src.fa_db
+        elif reference_gain is None:
             raise ValueError(f"local source {src.name!r}: a level read on the reference antenna needs that antenna")
-        unit = sky.compact_component(
-            src.name,
-            level=p372.NoiseLevel(0.0, 0.0, 0.0),
-            azimuth_rad=src.bearing_rad,
-            elevation_rad=src.elevation_rad,
-            spread_rad=src.spread_rad,
-        )
-        d = unit.directions
-        t_ref = sky.weighted_temperature_k(reference_gain(d.azimuth_rad, d.elevation_rad), unit.weight_k_sr)
-        if not t_ref > 0:
-            raise ValueError(
-                f"noise.local {src.name!r}: the reference antenna receives nothing from bearing "
-                f"{np.degrees(src.bearing_rad):g} deg, elevation {np.degrees(src.elevation_rad):g} deg, so a level "
-                "measured on it cannot be placed; give the level as fa instead"
+        else:
+            fa = level_to_fa_db(src, place, reference_gain, reference_chain_gain_db)
+        out.append(
+            sky.compact_component(
+                src.name,
+                level=p372.NoiseLevel(fa, 0.0, 0.0),
+                azimuth_rad=src.bearing_rad,
+                elevation_rad=src.elevation_rad,
+                spread_rad=src.spread_rad,
             )
-        have = float(power_dbm(t_ref, bandwidth_hz=place.bandwidth_hz)) + reference_chain_gain_db
-        out.append(unit.scaled(10.0 ** ((src.level_dbm - have) / 10.0)))
+        )
     return out
+
+
+def level_to_fa_db(src: LocalSource, place: Place, reference_gain, chain_gain_db: float = 0.0) -> float:
+    """The Fa [dB above kT0b] that makes the reference antenna (``reference_gain(azimuth_rad, elevation_rad) ->
+    linear``), through a chain of gain ``chain_gain_db``, receive a local source's ``level_dbm`` in the band's
+    bandwidth, as an S-meter shows it."""
+    from noisemodels import sky
+    from snrgain.receiver import power_dbm
+
+    unit = sky.compact_component(
+        src.name,
+        level=p372.NoiseLevel(0.0, 0.0, 0.0),
+        azimuth_rad=src.bearing_rad,
+        elevation_rad=src.elevation_rad,
+        spread_rad=src.spread_rad,
+    )
+    d = unit.directions
+    t_ref = sky.weighted_temperature_k(reference_gain(d.azimuth_rad, d.elevation_rad), unit.weight_k_sr)
+    if not t_ref > 0:
+        raise ValueError(
+            f"noise.local {src.name!r}: the reference antenna receives nothing from bearing "
+            f"{np.degrees(src.bearing_rad):g} deg, elevation {np.degrees(src.elevation_rad):g} deg, so a level "
+            "measured on it cannot be placed; give the level as fa instead"
+        )
+    have = float(power_dbm(t_ref, bandwidth_hz=place.bandwidth_hz)) + chain_gain_db
+    return float(src.level_dbm - have)
+
+
+def resolve_local_levels(
+    settings: NoiseSettings, place: Place, reference_gain, chain_gain_db: float = 0.0
+) -> NoiseSettings:
+    """The settings with every local source's level read on the reference turned into its Fa (the source's
+    strength), once; ``level_dbm`` stays, as the record of what was read.  Sources given as Fa are unchanged."""
+    from dataclasses import replace
+
+    local = tuple(
+        replace(s, fa_db=level_to_fa_db(s, place, reference_gain, chain_gain_db)) if s.level_dbm is not None else s
+        for s in settings.local
+    )
+    return replace(settings, local=local)
 
 
 def atmospheric_level(settings: NoiseSettings, place: Place, *, month: int, utc_hour) -> tuple[str, p372.NoiseLevel]:

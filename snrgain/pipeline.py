@@ -1,24 +1,31 @@
-"""evaluate(scenario) -> Results: the main job, as a short chain of named steps (``snrgain.evaluate``).
+"""evaluate(scenario) -> Results: the main job, as one chain of pure stages (``snrgain.evaluate``).
 
-1. :func:`snrgain.scenario.load`: validate the file and resolve it into SI objects (antennas, chains, targets,
-   noise settings, receiver);
-2. :func:`snrgain.snr.antenna_gains`: every antenna's gains on the sky grid and toward every target;
-3. :func:`snrgain.noise.build_skies`: the noise sky for every month and hour; :func:`steer_to_sky` sets the
-   arrays steered for SNR and the combinations under that sky;
-4. :func:`snrgain.snr.sky_temperatures`: each antenna's temperature from each component, a placed source's
-   made antenna by antenna where it stands (:func:`snrgain.placed.apply`);
-5. :func:`snrgain.spread.snr_spread`: how sure, over the ground, the noise levels and the hours;
-6. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
-   antenna's chain (:func:`snrgain.chain.noise_budget`);
-7. :func:`summary`: per target the candidates ranked by median SNR gain toward it, the station plan
-   (:func:`snrgain.plan.station_plan`), the build sheets (:func:`snrgain.build.build_sheet`) and
-   :func:`notices`.
+Each stage is a function of the products before it and returns new objects; nothing changes an antenna, a
+scenario or a result that a caller holds.  Every command (rank, report, figures, sweep, layout) and the tests
+go through these functions:
 
-Nothing is averaged over targets in dB except the plan's worth, which is the
-weighted mean of the best-in-set gain toward each target (snrgain.plan).
+1. :func:`snrgain.scenario.load`: validate the file and resolve it into SI objects;
+2. :func:`resolve_sources`: every local level read on the reference antenna becomes the source's strength (its
+   Fa), once, here;
+3. :func:`build_sky`: the noise sky for every month and hour (:func:`snrgain.noise.build_skies`);
+4. :func:`steer`: the antennas set under that sky (arrays steered for SNR, phasing units), returned as new
+   antennas;
+5. :func:`products`: every antenna's gains (:func:`snrgain.snr.antenna_gains`) and temperatures from every
+   component, placed sources heard where each antenna stands (:func:`snrgain.placed.pickup`, an input of
+   :func:`snrgain.snr.sky_temperatures`);
+6. :func:`snrgain.spread.snr_spread`: how sure, a map of :func:`products` over the variants (grounds) and of the
+   noise draws;
+7. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
+   antenna's chain (:func:`snrgain.chain.noise_budget`) and the build sheet;
+8. :func:`decide`: per target the candidates ranked by median SNR gain toward it, the station plan on the same
+   statistic (:func:`snrgain.plan.station_plan`) and :func:`notices`.
+
+Nothing is summed or averaged in dB over targets.
 """
 
 from __future__ import annotations
+
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -31,7 +38,7 @@ from snrgain.plan import station_plan
 from snrgain.receiver import power_dbm
 from snrgain.results import AntennaResult, Notice, PatternCuts, Results, rank_for_target
 from snrgain.scenario import Scenario, load
-from snrgain.spread import SnrSpread, snr_spread
+from snrgain.spread import SnrSpread, over_hours, snr_spread
 
 
 def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
@@ -44,37 +51,63 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     >>> float(np.nanmax(abs(r.reference.snr_gain_db)))  # the reference against itself
     0.0
     """
+    sc = source if isinstance(source, Scenario) else load(source, nside=nside, p372_dir=p372_dir)
+    grid = sky_grid(sc)
+    sc = resolve_sources(sc)
+    skies = build_sky(sc, grid)
+    sc = steer(sc, grid, skies)
+    nominal = products(sc, sc.antennas, grid, skies)
+    spread = snr_spread(sc, grid, skies, nominal)
+    return decide(sc, skies, antenna_results(sc, nominal, skies, spread), pattern_cuts(sc))
+
+
+def sky_grid(sc: Scenario):
+    """The HEALPix upper hemisphere at the scenario's resolution."""
     from noisemodels.sphere import upper_hemisphere
 
-    sc = source if isinstance(source, Scenario) else load(source, nside=nside, p372_dir=p372_dir)
-    grid = upper_hemisphere(sc.nside)
-    gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
-    skies = build_sky(sc, grid, gains)
-    gains = steer_to_sky(sc, grid, skies, gains)
-    temps = placed.apply(sc, sc.antennas, snr.sky_temperatures(gains, skies), skies)
-    spread = snr_spread(sc, grid, skies, gains, temps)
-    antennas = antenna_results(sc, gains, temps, skies, spread)
-    az_cut, el_cut = snr.pattern_cuts(sc.antennas, sc.freq_hz, sc.targets)
-    cuts = PatternCuts(
-        snr.AZIMUTH_CUT_DEG,
-        snr.ELEVATION_CUT_DEG,
-        {a.name: c for a, c in zip(antennas, az_cut)},
-        {a.name: c for a, c in zip(antennas, el_cut)},
-    )
-    return summary(sc, skies, antennas, cuts)
+    return upper_hemisphere(sc.nside)
 
 
-def build_sky(sc: Scenario, grid, gains: snr.Gains) -> noisemod.SkySeries:
-    """The scenario's noise sky on ``grid`` for its months and hours; a local source read on the reference is
-    placed with the reference's gains (``gains.caches[0]``) and chain."""
+def _reference_gain(sc: Scenario, reference=None):
+    ref = sc.reference if reference is None else reference
+    return lambda az, el: ref.gain_linear(sc.freq_hz, az, el)
+
+
+def _chain_gain_db(sc: Scenario) -> float:
+    return float(10 * np.log10(sc.chains[0].gain))
+
+
+def resolve_sources(sc: Scenario) -> Scenario:
+    """The scenario with each local level read on the reference turned into the source's strength (its Fa):
+    the one place where a reading on the reference is converted (:func:`snrgain.noise.resolve_local_levels`)."""
+    if not any(s.level_dbm is not None and s.fa_db is None for s in sc.noise.local):
+        return sc
+    noise = noisemod.resolve_local_levels(sc.noise, sc.place, _reference_gain(sc), _chain_gain_db(sc))
+    return replace(sc, noise=noise)
+
+
+def strength_offsets_db(sc: Scenario, reference) -> dict[str, float]:
+    """For a reference antenna changed by a variant (another ground): how many dB each source read on the
+    reference must move so that this reference still receives what was read (name -> dB)."""
+    out = {}
+    for s in sc.noise.local:
+        if s.level_dbm is not None and s.fa_db is not None:
+            fa = noisemod.level_to_fa_db(s, sc.place, _reference_gain(sc, reference), _chain_gain_db(sc))
+            out[s.name] = fa - s.fa_db
+    return out
+
+
+def build_sky(sc: Scenario, grid) -> noisemod.SkySeries:
+    """The scenario's noise sky on ``grid`` for its months and hours (its local sources resolved first by
+    :func:`resolve_sources`)."""
     return noisemod.build_skies(
         sc.noise,
         sc.place,
         months=sc.times.months,
         utc_hours=sc.times.utc_hours,
         grid=grid,
-        reference_gain=gains.caches[0].gain_fn,
-        reference_chain_gain_db=float(10 * np.log10(sc.chains[0].gain)),
+        reference_gain=_reference_gain(sc),
+        reference_chain_gain_db=_chain_gain_db(sc),
     )
 
 
@@ -84,60 +117,183 @@ def nearest_target(sc: Scenario, bearing_rad: float) -> int:
     return int(np.argmin(off))
 
 
-def steer_to_sky(sc: Scenario, grid, skies: noisemod.SkySeries, gains: snr.Gains) -> snr.Gains:
-    """Set every candidate that ``uses_sky`` (arrays steered for SNR, combinations) under this scenario's sky, and
-    return the gains with theirs evaluated afresh.
+@dataclass(frozen=True)
+class Products:
+    """The nominal products of a set of antennas under one sky: the antennas ([reference, *candidates]), their
+    gains and their temperatures from every component."""
 
-    The noise form is the sky's, averaged over the scenario's months and hours (one setting serves them all), plus
-    the antenna's chain noise (its receiver referred to the antenna) on the combiner's normalisation; the signal
-    form is the target nearest the array's bearing (snrgain.antennas.steering).
-    """
+    antennas: tuple
+    gains: snr.Gains
+    temps: snr.Temperatures
+
+
+def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=None, known=None) -> Products:
+    """Gains and temperatures of ``antennas`` (the reference first) under ``skies``; ``ground``: the soil under a
+    placed source's field (default: the site's); ``strength_db``: see :func:`snrgain.snr.sky_temperatures`.
+
+    ``known``: products already made under the same sky; the gains of the antennas it holds (the same objects)
+    are taken from it, not computed again (a sweep's shared reference, a spread's antennas that keep their
+    ground)."""
+    antennas = tuple(antennas)
+    gains = _gains(sc, antennas, grid, known)
+    pick = placed.pickup(sc, antennas, ground=ground)
+    return Products(antennas, gains, snr.sky_temperatures(gains, skies, pickup=pick, strength_db=strength_db))
+
+
+def _gains(sc: Scenario, antennas: tuple, grid, known: Products | None) -> snr.Gains:
+    if known is None:
+        return snr.antenna_gains(antennas, sc.freq_hz, grid, sc.targets)
+    rows = {id(a): j for j, a in enumerate(known.antennas)}
+    for j, a in enumerate(known.antennas):
+        key = a.gain_key()
+        if key is not None:
+            rows.setdefault(key, j)
+
+    def row(a):
+        j = rows.get(id(a))
+        return rows.get(a.gain_key()) if j is None else j
+
+    new = [a for a in antennas if row(a) is None]
+    fresh = iter(
+        zip(*(lambda g: (g.caches, g.toward, g.mean))(snr.antenna_gains(new, sc.freq_hz, grid, sc.targets)))
+        if new
+        else ()
+    )
+    parts = []
+    for a in antennas:
+        j = row(a)
+        parts.append(next(fresh) if j is None else (known.gains.caches[j], known.gains.toward[j], known.gains.mean[j]))
+    caches, toward, mean = zip(*parts)
+    return snr.Gains(list(caches), np.array(toward).reshape(len(antennas), len(sc.targets)), np.array(mean))
+
+
+def snr_gains(sc: Scenario, p: Products) -> np.ndarray:
+    """SNR gain [dB] of every antenna of ``p`` over the first (the reference), through each antenna's chain, per
+    target, month and hour: (antennas, targets, months, hours), NaN where a target is not listened."""
+    t_chain = np.array([c.temperature_k for c in sc.chains])
+    g = snr.snr_gain_over_reference(p.gains.toward, p.temps.total + t_chain[:, None, None])
+    return np.where(target_masks(sc)[None], g, np.nan)
+
+
+def target_statistic(sc: Scenario, g: np.ndarray) -> np.ndarray:
+    """The one statistic of :func:`snr_gains` per antenna and target (snrgain.spread.over_hours): (antennas,
+    targets) [dB]."""
+    masks = target_masks(sc)
+    return np.array([[over_hours(gt[m], sc.uncertainty.hours) for gt, m in zip(ga, masks)] for ga in g])
+
+
+def nominal(sc: Scenario):
+    """(scenario as set under its sky, skies, nominal products, per-antenna figures without spreads): the stages of
+    :func:`evaluate` short of the spread and the decisions (sweeps, layout)."""
+    grid = sky_grid(sc)
+    sc = resolve_sources(sc)
+    skies = build_sky(sc, grid)
+    sc = steer(sc, grid, skies)
+    p = products(sc, sc.antennas, grid, skies)
+    return sc, skies, p, antenna_results(sc, p, skies)
+
+
+def with_antennas(sc: Scenario, antennas) -> Scenario:
+    """The scenario holding ``antennas`` ([reference, *candidates], as a stage returned them)."""
+    antennas = list(antennas)
+    return replace(sc, reference=antennas[0], candidates=tuple(antennas[1:]))
+
+
+def repoint(antennas: list, old: list) -> list:
+    """Composite antennas made over the antennas at the same places in ``antennas`` as their parts stood in
+    ``old`` (a stage that returns new antennas keeps the phasing units over them)."""
+    out = list(antennas)
+    for k, ant in enumerate(out):
+        if ant.composite and ant.elements:
+            idx = [next(i for i, o in enumerate(old) if o is e) for e in ant.elements]
+            out[k] = ant.with_parts([out[i] for i in idx])
+    return out
+
+
+def sky_forms(sc: Scenario, skies, ant, k: int):
+    """(signal, noise, target index) quadratic forms of an antenna's element weights under the sky: the noise
+    averaged over the scenario's months and hours plus the chain's noise on the combiner's normalisation, the
+    signal toward the target nearest its bearing (snrgain.antennas.steering)."""
     from snrgain.antennas.steering import quadratic_form
 
-    steered = [k for k, a in enumerate(sc.antennas) if k > 0 and getattr(a, "uses_sky", False)]
-    steered.sort(key=lambda k: sc.antennas[k].sky_order)  # a combination's parts are set first
-    if not steered or skies.maps is None:
-        return gains
-    for k in steered:
-        ant = sc.antennas[k]
-        responses: dict[int, tuple] = {}
-        noise = 0
-        for comps in skies.maps.values():
-            for c in comps:
-                key = id(c.directions)
-                if key not in responses:
-                    responses[key] = ant.element_responses(
-                        sc.freq_hz, c.directions.azimuth_rad, c.directions.elevation_rad
-                    )
-                noise = noise + quadratic_form(*responses[key], c.weight_k_sr / (4 * np.pi))
-        noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
-        t = sc.targets[nearest_target(sc, ant.params.bearing)]
-        signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
-        ant.set_under_sky(sc.freq_hz, signal=signal, noise=noise, note=f"SNR toward {t.name} under the site's noise")
-    fresh = snr.antenna_gains([sc.antennas[k] for k in steered], sc.freq_hz, grid, sc.targets)
-    caches, toward, mean = list(gains.caches), gains.toward.copy(), gains.mean.copy()
-    for i, k in enumerate(steered):
-        caches[k], toward[k], mean[k] = fresh.caches[i], fresh.toward[i], fresh.mean[i]
-    return snr.Gains(caches, toward, mean)
+    responses: dict[int, tuple] = {}
+    noise = 0
+    for comps in skies.maps.values():
+        for c in comps:
+            key = id(c.directions)
+            if key not in responses:
+                responses[key] = ant.element_responses(sc.freq_hz, c.directions.azimuth_rad, c.directions.elevation_rad)
+            noise = noise + quadratic_form(*responses[key], c.weight_k_sr / (4 * np.pi))
+    noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
+    ti = nearest_target(sc, ant.params.bearing)
+    t = sc.targets[ti]
+    signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
+    return signal, noise, ti
 
 
-def antenna_results(
-    sc: Scenario,
-    gains: snr.Gains,
-    temps: snr.Temperatures,
-    skies: noisemod.SkySeries,
-    spread: SnrSpread | None = None,
-) -> list[AntennaResult]:
-    """Per-antenna figures ([reference, *candidates], unranked) from gains, sky temperatures and the spread.
+def steer(sc: Scenario, grid, skies) -> Scenario:
+    """The scenario with every candidate that ``uses_sky`` (arrays steered for SNR, phasing units) set under its
+    sky: new antennas, the scenario's own untouched.
 
-    Without ``spread`` the figures are nominal: the median and both deciles are the nominal SNR gain, and the
-    probability of beating the reference is NaN (not computed).
+    A phasing unit's automatic setting is the best, by the ranking's statistic (the median over its target's
+    hours of the SNR gain over the reference), of the maximum-SNR setting and each of its two antennas alone, so
+    it is never worse than the better of its parts toward its target.
     """
+    old = list(sc.antennas)
+    order = sorted((k for k, a in enumerate(old) if k > 0 and a.uses_sky), key=lambda k: old[k].sky_order)
+    if not order or skies.maps is None:
+        return sc
+    ants = list(old)
+    ref = None
+    for k in order:
+        ant = repoint(ants, old)[k]
+        signal, noise, ti = sky_forms(sc, skies, ant, k)
+        note = f"SNR toward {sc.targets[ti].name} under the site's noise"
+        choices = [ant.under_sky(sc.freq_hz, signal=signal, noise=noise, note=note)]
+        if ant.composite and ant.optimised:
+            for i, part in enumerate(ant.elements):
+                alone = ant.alone(sc.freq_hz, i, f"{part.name} alone: the better part toward {sc.targets[ti].name}")
+                alone.setting_loss(sc.freq_hz, signal, noise)
+                choices.append(alone)
+            if ref is None:
+                ref = products(sc, [ants[0]], grid, skies)
+            ants[k] = max(choices, key=lambda a: _median_gain(sc, grid, skies, ref, a, k, ti))
+        else:
+            ants[k] = choices[0]
+    return with_antennas(sc, repoint(ants, old))
+
+
+def _median_gain(sc: Scenario, grid, skies, ref: Products, ant, k: int, ti: int) -> float:
+    """Antenna ``ant``'s (candidate ``k``'s) statistic toward target ``ti`` without the spreads [dB]."""
+    sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[k]))
+    p = products(sub, [ref.antennas[0], ant], grid, skies, known=ref)
+    return float(target_statistic(sub, snr_gains(sub, p))[1, ti])
+
+
+def pattern_cuts(sc: Scenario) -> PatternCuts:
+    """Azimuth and elevation cuts of every antenna toward every target."""
+    az_cut, el_cut = snr.pattern_cuts(sc.antennas, sc.freq_hz, sc.targets)
+    return PatternCuts(
+        snr.AZIMUTH_CUT_DEG,
+        snr.ELEVATION_CUT_DEG,
+        {a.name: c for a, c in zip(sc.antennas, az_cut)},
+        {a.name: c for a, c in zip(sc.antennas, el_cut)},
+    )
+
+
+def antenna_results(sc: Scenario, nominal: Products, skies: noisemod.SkySeries, spread: SnrSpread | None = None):
+    """Per-antenna figures ([reference, *candidates], unranked) from the nominal products and the spread, each with
+    its build sheet (``sc`` holds the antennas as set under the sky).
+
+    Without ``spread`` the figures are nominal: the median and both deciles are the nominal SNR gain (the median
+    over the target's hours), and the probability of beating the reference is NaN (not computed).
+    """
+    gains, temps = nominal.gains, nominal.temps
     b = sc.bandwidth_hz
     t_chain = np.array([c.temperature_k for c in sc.chains])
     masks = target_masks(sc)
-    snr_gain = np.where(masks, snr.snr_gain_over_reference(gains.toward, temps.total + t_chain[:, None, None]), np.nan)
-    nominal = np.array([[np.mean(gt[m]) for gt, m in zip(g, masks)] for g in snr_gain])  # (antennas, targets)
+    snr_gain = snr_gains(sc, nominal)
+    median = target_statistic(sc, snr_gain)
     deciles = [
         snr.snr_gain_with_scaled_kind(gains.toward, temps, t_chain, skies, kind="atmospheric", deviation=d)
         for d in ("upper", "lower")
@@ -173,14 +329,15 @@ def antenna_results(
                 receiver_snr_loss_db=budget.receiver_snr_loss_db,
                 preamp_gain_needed_db=budget.preamp_gain_needed_db,
                 preamp_position=budget.preamp_position,
-                snr_gain_nominal_db=nominal[k],
-                snr_gain_median_db=nominal[k] if spread is None else spread.median_db[k],
-                snr_gain_p10_db=nominal[k] if spread is None else spread.p10_db[k],
-                snr_gain_p90_db=nominal[k] if spread is None else spread.p90_db[k],
+                snr_gain_nominal_db=median[k],
+                snr_gain_median_db=median[k] if spread is None else spread.median_db[k],
+                snr_gain_p10_db=median[k] if spread is None else spread.p10_db[k],
+                snr_gain_p90_db=median[k] if spread is None else spread.p90_db[k],
                 probability_beats=np.full(len(masks), np.nan) if spread is None else spread.probability[k],
                 receiver_limited=bool(np.any(budget.margin_db < sc.receiver.margin_target_db)),
                 chain=chainmod.describe(ch, bandwidth_hz=b),
                 snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),
+                build={} if k == 0 else build_sheet(ant, sc.freq_hz, cable=ch.cable),
             )
         )
     return out
@@ -241,30 +398,27 @@ LOBE_ELEVATION_DEG = 15.0
 
 def main_lobe_deg(antenna, freq_hz: float) -> float | None:
     """Bearing [deg] of an array's azimuth maximum at LOBE_ELEVATION_DEG, for the families steered by phases or
-    delays (array, phased-verticals); None for the others."""
-    if antenna.family not in ("array", "phased-verticals"):
+    delays (``phased``); None for the others."""
+    if not antenna.phased:
         return None
     az = np.arange(0.0, 360.0, 1.0)
     g = antenna.gain_dbi(freq_hz, az, LOBE_ELEVATION_DEG)
     return float(az[int(np.argmax(g))])
 
 
-def summary(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:
-    """The Results of a scenario from its per-antenna figures: rankings per target, the plan, the build sheets."""
+def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:
+    """The Results of a scenario from its per-antenna figures: per target the candidates ranked by the median SNR
+    gain toward it, and the station plan on that same statistic (snrgain.plan)."""
     ground = sc.site.ground
     reference, candidates = antennas[0], antennas[1:]
-    for a, ant, ch in zip(candidates, sc.candidates, sc.chains[1:]):
-        a.build = build_sheet(ant, sc.freq_hz, cable=ch.cable)
     targets = [_target_dict(t, w, tt) for t, w, tt in zip(sc.targets, sc.target_weights, sc.target_times)]
     plan = station_plan(
         [a.name for a in antennas],
-        np.nan_to_num(np.array([a.snr_gain_db for a in antennas]), nan=0.0),
-        target_masks(sc),
+        np.array([a.snr_gain_median_db for a in antennas]),
         sc.target_weights,
         max_antennas=sc.max_antennas,
-        months=sc.times.months,
-        utc_hours=sc.times.utc_hours,
-        buildable=[a.family != "isotropic" for a in antennas],
+        buildable=[ant.buildable for ant in sc.antennas],
+        target_times=[(list(tt.months), list(tt.utc_hours)) for tt in sc.target_times],
     )
     return Results(
         source=sc.source,
@@ -353,4 +507,14 @@ def _target_dict(t, w, times) -> dict:
     }
 
 
-__all__ = ["evaluate", "steer_to_sky", "antenna_results", "notices", "summary"]
+__all__ = [
+    "evaluate",
+    "resolve_sources",
+    "build_sky",
+    "steer",
+    "products",
+    "antenna_results",
+    "decide",
+    "notices",
+    "Products",
+]

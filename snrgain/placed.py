@@ -35,12 +35,7 @@ import numpy as np
 from scipy.integrate import trapezoid
 
 from noisemodels.groundwave import dipole_field
-from snrgain.constants import WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S
-
-INTEGRATED_FAMILIES = tuple(f for f in WIRE_FAMILIES if f != "two-wire")
-"""Long-wire families whose pickup of a placed source is integrated along the wire (the two-wire's reverse port
-runs through its reflection transformer, which the point-by-point sum does not follow: it hears at its feed)."""
 
 
 def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
@@ -126,34 +121,54 @@ def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) ->
 def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:
     """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain;
     ``at_m`` puts the antenna (its feed point) there instead of at its position."""
+    a_v, a_h = received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m)
+    return float(abs(a_v) ** 2 + abs(a_h) ** 2)
+
+
+def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> tuple[complex, complex]:
+    """(vertical, horizontal) complex amplitudes an antenna delivers from a placed source, |a_v|^2 + |a_h|^2 its
+    :func:`received_power`.  A long wire sums the field along its length (one amplitude, both polarisations in its
+    current); a compact antenna takes its response toward the source times the field where it stands; a
+    composite (a phasing unit) adds its parts' amplitudes through its weights, each part hearing the source where
+    it stands, so a unit that passes one antenna alone hears exactly what that antenna hears."""
+    from snrgain.antennas.base import Antenna
     from snrgain.antennas.longwire import port_response
 
-    if antenna.family in INTEGRATED_FAMILIES:
+    if antenna.composite:
+        f = float(freq_hz)
+        w = antenna.weights_at(f)
+        norm = float(np.real(w.conj() @ antenna.norm_matrix(f) @ w))
+        parts = [received_amplitudes(p, src, f, reference_m, ground) for p in antenna.elements]
+        return tuple(complex(sum(wi * a[i] for wi, a in zip(w, parts)) / np.sqrt(norm)) for i in (0, 1))
+    if antenna.integrates_near_sources:
         feed = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
         i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
         load = antenna.receiver_load_ohm(freq_hz)
         e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
-        return float(np.abs(e[0]) ** 2)
+        return complex(e[0]), 0j
     at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
     ev, eh = source_field(src, at[None, :], freq_hz, ground)
     az = bearing_to(src, at[None, :])
-    gv, gh = antenna.partial_gains(freq_hz, az, np.array([src.elevation_rad]))
-    return float(gv[0] * abs(ev[0]) ** 2 + gh[0] * abs(eh[0]) ** 2)
+    el = np.array([src.elevation_rad])
+    if type(antenna).complex_response is Antenna.complex_response:  # no phase: the gains alone
+        gv, gh = antenna.partial_gains(freq_hz, az, el)
+        return complex(np.sqrt(gv[0]) * abs(ev[0])), complex(np.sqrt(gh[0]) * abs(eh[0]))
+    rv, rh = antenna.complex_response(freq_hz, az, el)
+    return complex(rv[0] * ev[0]), complex(rh[0] * eh[0])
 
 
-def apply(sc, antennas, temps, skies, *, ground=None):
-    """Temperatures with each placed source's row made antenna by antenna (module docstring); ``ground`` the soil
-    under the source's field (default: the site's).  Returns ``temps`` unchanged when no source is placed."""
-    from snrgain import snr
-
+def pickup(sc, antennas, *, ground=None) -> dict[str, np.ndarray]:
+    """Each placed source's share in each antenna relative to the first (the reference), P_A / P_ref (module
+    docstring), with a source's Fa measured elsewhere (``measured_at``) carried to the reference by the field
+    ratio: name -> array (antennas,).  ``ground``: the soil under the source's field (default: the site's).
+    An input of the integrator (:func:`snrgain.snr.sky_temperatures`); empty when no source is placed."""
     placed = [s for s in sc.noise.local if s.position_m is not None]
     if not placed:
-        return temps
+        return {}
     ground = sc.site.ground if ground is None else ground
-    ref_m = sc.reference.params.position or (0.0, 0.0)
-    by = temps.by_component.copy()
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    out = {}
     for src in placed:
-        c = skies.names.index(src.name)
         powers = np.array([received_power(a, src, sc.freq_hz, ref_m, ground) for a in antennas])
         if not powers[0] > 0:
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
@@ -166,5 +181,5 @@ def apply(sc, antennas, temps, skies, *, ground=None):
                 * (np.abs(e_ref[0][0]) ** 2 + np.abs(e_ref[1][0]) ** 2)
                 / (np.abs(e_at[0][0]) ** 2 + np.abs(e_at[1][0]) ** 2)
             )
-        by[c] = by[c, :1] * scale[:, None, None]
-    return snr.Temperatures(by, by.sum(axis=0))
+        out[src.name] = scale
+    return out

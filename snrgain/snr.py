@@ -119,17 +119,30 @@ class Temperatures:
     total: np.ndarray
 
 
-def sky_temperatures(gains: Gains, skies) -> Temperatures:
-    """Each antenna's temperature from each component of a :class:`snrgain.noise.SkySeries` built with maps."""
+def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> Temperatures:
+    """Each antenna's temperature from each component of a :class:`snrgain.noise.SkySeries` built with maps.
+
+    ``gains.caches[0]`` is the reference.  ``pickup`` (name -> array (antennas,), :func:`snrgain.placed.pickup`):
+    a placed source is integrated through the reference's pattern where the sky places it, and every antenna
+    takes that times its share (it hears the source from where it stands).  ``strength_db`` (name -> dB): a
+    component's strength relative to the sky's (a local source re-read on a reference at another ground).
+    """
     if skies.maps is None:
         raise ValueError("antenna temperatures need the sky's maps; build the skies with maps=True")
+    pickup = pickup or {}
     nm, nh = len(skies.months), len(skies.utc_hours)
     out = np.zeros((len(skies.names), len(gains.caches), nm, nh))
     index = {n: i for i, n in enumerate(skies.names)}
     for (i, j), comps in skies.maps.items():
-        rows = [index[c.name] for c in comps]
+        spread = [c for c in comps if c.name not in pickup]
+        rows = [index[c.name] for c in spread]
         for k, cache in enumerate(gains.caches):
-            out[rows, k, i, j] = antenna_temperature_k(cache, comps)
+            out[rows, k, i, j] = antenna_temperature_k(cache, spread)
+        for c in comps:
+            if c.name in pickup:
+                out[index[c.name], :, i, j] = antenna_temperature_k(gains.caches[0], [c])[0] * pickup[c.name]
+    for name, db in (strength_db or {}).items():
+        out[index[name]] *= 10.0 ** (db / 10.0)
     return Temperatures(out, out.sum(axis=0))
 
 

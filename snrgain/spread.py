@@ -32,7 +32,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from snrgain import placed, snr
 from snrgain.antennas.base import variant
 from snrgain.ground import Ground, GroundSpread
 
@@ -41,8 +40,6 @@ Z90 = 1.2815515655446004
 
 _GH3 = ((-np.sqrt(3.0), 1.0 / 6.0), (0.0, 2.0 / 3.0), (np.sqrt(3.0), 1.0 / 6.0))
 """Three-point Gauss-Hermite rule for a standard normal variable: (node, weight)."""
-
-_FIXED_GROUND_FAMILIES = ("array", "wire-structure", "tabulated", "isotropic")
 
 
 @dataclass
@@ -103,52 +100,62 @@ def noise_offsets_db(
     return np.where(z > 0, z * du / Z90, z * dl / Z90)
 
 
-def _on_ground(sc, ground):
-    """The scenario's antennas with those on the site's ground moved to ``ground``."""
+def on_ground(sc, antennas, ground) -> list:
+    """``antennas`` with those standing on the site's ground moved to ``ground`` (new antennas; a setting made
+    under the sky is kept, and phasing units are remade over their moved parts)."""
+    from snrgain.pipeline import repoint
+
+    moved = []
+    for ant in antennas:
+        on_site = not ant.fixed_ground and getattr(ant, "ground", "none") == sc.site.ground
+        moved.append(variant(ant, ground=ground) if on_site and ground is not sc.site.ground else ant)
+    return repoint(moved, list(antennas))
+
+
+def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
+    """(products, weight) of each ground node: the nominal products at the centre node, the same stages
+    (:func:`snrgain.pipeline.products`) over the antennas moved to each other ground; a level read on the
+    reference keeps that reading at every ground (its strength moves so the moved reference still receives it)."""
+    from snrgain.pipeline import products, strength_offsets_db
+
+    u = sc.uncertainty
     out = []
-    for ant in sc.antennas:
-        on_site = getattr(ant, "ground", "none") == sc.site.ground and ant.family not in _FIXED_GROUND_FAMILIES
-        out.append(variant(ant, ground=ground) if on_site and ground is not sc.site.ground else ant)
+    for ground, weight in ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None):
+        if ground is sc.site.ground:
+            out.append((nominal, weight))
+            continue
+        moved = on_ground(sc, nominal.antennas, ground)
+        strength = strength_offsets_db(sc, moved[0])
+        out.append((products(sc, moved, grid, skies, ground=ground, strength_db=strength, known=nominal), weight))
     return out
 
 
-def snr_spread(sc, grid, skies, gains: snr.Gains, temps: snr.Temperatures) -> SnrSpread:
-    """The SNR gain's spread for every antenna and target of a resolved scenario (module docstring).
-
-    ``gains`` and ``temps`` are the nominal ones (reused at the centre node).
-    """
+def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
+    """The SNR gain's spread for every antenna and target (module docstring): a map of the pipeline's stages over
+    the ground nodes, then of the noise draws.  Worked one antenna at a time, so memory grows with the draws, the
+    targets and the hours, not with the number of antennas."""
     u = sc.uncertainty
-    nodes = ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None)
+    per_node = variants(sc, nominal, grid, skies)
     local = {s.name: s.uncertainty_db for s in sc.noise.local} if u.local_sources else {}
     offsets = noise_offsets_db(skies, local, samples=u.samples, seed=u.seed, deciles=u.noise_deciles)
     factors = 10.0 ** (offsets / 10.0)  # (draws, comps, months, hours)
-    measured = [skies.names.index(s.name) for s in sc.noise.local if s.level_dbm is not None]
-    t_chain = np.array([c.temperature_k for c in sc.chains])[None, :, None, None]
-    per_node = []
-    for ground, weight in nodes:
-        if ground is sc.site.ground:
-            g, t = gains, temps
-        else:
-            moved = _on_ground(sc, ground)
-            g = snr.antenna_gains(moved, sc.freq_hz, grid, sc.targets)
-            t = placed.apply(sc, moved, snr.sky_temperatures(g, skies), skies, ground=ground)
-            by = t.by_component.copy()
-            for c in measured:  # the reading on the reference antenna is what was measured
-                by[c] *= temps.by_component[c, 0] / by[c, 0]
-            t = snr.Temperatures(by, by.sum(axis=0))
-        noise = np.einsum("ncmh,camh->namh", factors, t.by_component) + t_chain  # (draws, ants, months, hours)
-        signal = g.toward[None, :, :, None, None]  # (1, ants, targets, 1, 1)
+    t_chain = np.array([c.temperature_k for c in sc.chains])
+    masks = [times.mask(sc.times) for times in sc.target_times]
+
+    def own_db(p, a):  # (draws, targets, months, hours): the antenna's own SNR [dB] under each draw
+        noise = np.einsum("ncmh,cmh->nmh", factors, p.temps.by_component[:, a]) + t_chain[a]
         with np.errstate(divide="ignore"):
-            own = 10.0 * np.log10(signal / noise[:, :, None])
-        per_node.append((own - own[:, :1], weight))  # over the reference, (draws, ants, targets, months, hours)
-    n_ant, n_tgt = gains.toward.shape
+            return 10.0 * np.log10(p.gains.toward[a][None, :, None, None] / noise[:, None])
+
+    refs = [own_db(p, 0) for p, _ in per_node]
+    n_ant, n_tgt = nominal.gains.toward.shape
     out = {k: np.zeros((n_ant, n_tgt)) for k in ("median", "p10", "p90", "prob")}
-    for t_idx, times in enumerate(sc.target_times):
-        mask = times.mask(sc.times)
-        for a in range(n_ant):
+    for a in range(n_ant):
+        gain = [(own_db(p, a) - ref, w) for (p, w), ref in zip(per_node, refs)]
+        for t_idx, mask in enumerate(masks):
             values, weights = [], []
-            for gain, weight in per_node:
-                cells = gain[:, a, t_idx][:, mask]  # (draws, cells)
+            for g, weight in gain:
+                cells = g[:, t_idx][:, mask]  # (draws, cells)
                 if not u.hours:
                     cells = cells.mean(axis=1, keepdims=True)
                 values.append(cells.ravel())
@@ -159,6 +166,13 @@ def snr_spread(sc, grid, skies, gains: snr.Gains, temps: snr.Temperatures) -> Sn
             )
             out["prob"][a, t_idx] = float(np.sum(w[v >= u.beat_by_db]) / np.sum(w))
     return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
+
+
+def over_hours(values_db, hours: bool) -> float:
+    """The one statistic over a target's months and hours of nominal SNR gains [dB]: their median, or with the
+    hours not counted as a spread (``[uncertainty] hours = false``) their mean in dB."""
+    v = np.asarray(values_db, dtype=float)
+    return float(np.median(v) if hours else np.mean(v))
 
 
 def weighted_quantiles(values, weights, quantiles) -> tuple[float, ...]:

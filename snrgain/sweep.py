@@ -250,77 +250,81 @@ def _shown(value) -> str:
 
 
 class _Shared:
-    """The part of a scenario that candidate-only designs share: the sky, the reference, the temperatures."""
+    """The stages a sweep's designs share, made once from the first design: the sky (its local sources resolved),
+    the reference's products; a design then goes through the same stages (snrgain.pipeline) for the antennas it
+    changes.  What an antenna declares decides how much is shared: a candidate set under the sky is set under
+    this sky (pipeline.steer); a phasing unit, or an antenna a phasing unit holds, takes the whole scenario."""
 
     def __init__(self, study: Study):
-        from noisemodels.sphere import upper_hemisphere
-        from snrgain import snr
-        from snrgain.pipeline import build_sky
+        from snrgain import pipeline
 
         self.study = study
-        self.sc = sc = study.load(study.data)
-        self.grid = upper_hemisphere(sc.nside)
-        gains = snr.antenna_gains([sc.reference], sc.freq_hz, self.grid, sc.targets)
-        self.skies = build_sky(sc, self.grid, gains)
-        self.ref_gains = gains
-        self.ref_temps = snr.sky_temperatures(gains, self.skies)
+        sc = pipeline.resolve_sources(study.load(study.data))
+        self.grid = pipeline.sky_grid(sc)
+        self.skies = pipeline.build_sky(sc, self.grid)
+        self.sc = sc
+        self.ref = pipeline.products(sc, [sc.reference], self.grid, self.skies)
         self.raw_ground = study.data.get("site", {}).get("ground", "moist loam")
         self.names = [c.name for c in sc.candidates]
+        held = {id(e) for a in sc.candidates if a.composite for e in a.elements}
+        self.alone = {a.name for a in sc.candidates if not a.composite and id(a) not in held}
+        """Candidates that stand alone: a design that changes one of them rebuilds it alone."""
 
     def candidate(self, data: dict, name: str):
-        """The AntennaResult of one candidate of a design, against the shared reference and sky."""
-        from snrgain import pipeline, placed, snr
+        """The AntennaResult of one candidate of a design (nominal: no spreads)."""
+        from snrgain import pipeline
         from snrgain.scenario import antenna_from_table
 
         sc = self.sc
         k = self.names.index(name)
-        spec = dict(next(c for c in data["candidate"] if c.get("name") == name))
-        spec.pop("chain", None)
+        spec = {key: v for key, v in next(c for c in data["candidate"] if c.get("name") == name).items()}
+        for key in ("chain", "place"):  # the candidate's own chain is the scenario's; its place is layout's
+            spec.pop(key, None)
         base = Path(self.study.base_dir) if self.study.base_dir else None
         ant = antenna_from_table(
             spec, f"candidate {name!r}", site_ground=self.raw_ground, base_dir=base, freq_hz=sc.freq_hz
         )
-        g = snr.antenna_gains([ant], sc.freq_hz, self.grid, sc.targets)
-        t = snr.sky_temperatures(g, self.skies)
-        gains = snr.Gains(
-            [self.ref_gains.caches[0], g.caches[0]],
-            np.vstack([self.ref_gains.toward, g.toward]),
-            np.concatenate([self.ref_gains.mean, g.mean]),
-        )
-        by = np.concatenate([self.ref_temps.by_component, t.by_component], axis=1)
         sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[1 + k]))
-        temps = placed.apply(sub, sub.antennas, snr.Temperatures(by, by.sum(axis=0)), self.skies)
-        return pipeline.antenna_results(sub, gains, temps, self.skies)[1]  # nominal: no spread
+        sub = pipeline.steer(sub, self.grid, self.skies)
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+        return pipeline.antenna_results(sub, p, self.skies)[1]
 
 
 _SHARED: dict[int, _Shared] = {}
 
 
+def _shared(study: Study) -> _Shared:
+    key = id(study)
+    shared = _SHARED.get(key)
+    if shared is None:
+        _SHARED.clear()
+        shared = _SHARED[key] = _Shared(study)
+    return shared
+
+
 def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
     """Rows (one per design, varied antenna and target) for a chunk of (design number, values)."""
-    rows = []
-    targets_of = None
-    if study.fast:
-        key = id(study)
-        shared = _SHARED.get(key)
-        if shared is None:
-            _SHARED.clear()
-            shared = _SHARED[key] = _Shared(study)
-        names = sorted({v.table for v in study.varies}, key=shared.names.index)
-        targets_of = [t.name for t in shared.sc.targets]
-        for number, values in chunk:
-            data = apply(study.data, study.varies, values)
-            for name in names:
-                rows += _rows(number, study.varies, values, shared.candidate(data, name), targets_of, False)
-        return rows
-    from snrgain.pipeline import evaluate
+    from snrgain import pipeline
 
+    rows = []
+    shared = _shared(study) if study.fast else None
+    varied = {v.table for v in study.varies}
     for number, values in chunk:
-        r = evaluate(study.load(apply(study.data, study.varies, values)))
-        names = {v.table for v in study.varies} & {c.name for c in r.candidates}
-        chosen = [c for c in r.candidates if c.name in names] or list(r.candidates)
-        for a in chosen:
-            rows += _rows(number, study.varies, values, a, [t["name"] for t in r.targets], study.spread)
+        data = apply(study.data, study.varies, values)
+        if shared is not None and varied <= shared.alone:
+            targets = [t.name for t in shared.sc.targets]
+            for name in sorted(varied, key=shared.names.index):
+                rows += _rows(number, study.varies, values, shared.candidate(data, name), targets, False)
+            continue
+        if study.spread:
+            r = pipeline.evaluate(study.load(data))
+            targets, chosen = [t["name"] for t in r.targets], list(r.candidates)
+        else:
+            sc, _, _, per = pipeline.nominal(study.load(data))
+            targets, chosen = [t.name for t in sc.targets], per[1:]
+        names = varied & {c.name for c in chosen}
+        for a in [c for c in chosen if c.name in names] or chosen:
+            rows += _rows(number, study.varies, values, a, targets, study.spread)
     return rows
 
 

@@ -20,13 +20,13 @@ from noisemodels import p372
 from noisemodels.sphere import upper_hemisphere
 from snrgain import chain as chainmod
 from snrgain import noise as noisemod
-from snrgain import snr
+from snrgain import pipeline, snr
 from snrgain.antennas import FAMILIES, from_si, from_spec
 from snrgain.antennas.base import variant
 from snrgain.cli.main import cli
 from snrgain.files import OutputExistsError, write_atomic
 from snrgain.messages import notice_text
-from snrgain.pipeline import antenna_results, build_sky, notices
+from snrgain.pipeline import antenna_results, notices
 from snrgain.scenario import load
 from snrgain.spread import snr_spread
 from snrgain.units import QuantityError, parse_attenuation_db_per_100m, parse_quantity
@@ -148,16 +148,16 @@ def test_noise_command_and_ranking_share_the_sky_builder():
 
 
 def _steps(text):
-    sc = load(text)
+    sc = pipeline.resolve_sources(load(text))
     grid = upper_hemisphere(sc.nside)
-    gains = snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
-    skies = build_sky(sc, grid, gains)
-    return sc, gains, skies, snr.sky_temperatures(gains, skies)
+    skies = pipeline.build_sky(sc, grid)
+    sc = pipeline.steer(sc, grid, skies)
+    return sc, grid, skies, pipeline.products(sc, sc.antennas, grid, skies)
 
 
 def test_antenna_results_reference_is_zero_and_steps_equal_evaluate():
-    sc, gains, skies, temps = _steps(MINIMAL)
-    per = antenna_results(sc, gains, temps, skies, snr_spread(sc, upper_hemisphere(sc.nside), skies, gains, temps))
+    sc, grid, skies, nominal = _steps(MINIMAL)
+    per = antenna_results(sc, nominal, skies, snr_spread(sc, grid, skies, nominal))
     assert np.all(per[0].snr_gain_db == 0.0)
     whole = snrgain.evaluate(MINIMAL)
     assert per[1].snr_gain_median_db == pytest.approx(whole.candidates[0].snr_gain_median_db, abs=1e-12)
@@ -166,9 +166,8 @@ def test_antenna_results_reference_is_zero_and_steps_equal_evaluate():
 def test_notices_are_data_and_worded_at_the_edge():
     # 40 dB of feed-line loss ahead of a 40 dB noise figure: the chain's floor lies far above the sky's noise.
     text = MINIMAL + '\n[receiver]\nnoise_figure = 40\n\n[chain]\nfeedline = { loss = "40 dB" }\n'
-    sc, gains, skies, temps = _steps(text)
-    spread = snr_spread(sc, upper_hemisphere(sc.nside), skies, gains, temps)
-    notes = notices(sc, antenna_results(sc, gains, temps, skies, spread))
+    sc, grid, skies, nominal = _steps(text)
+    notes = notices(sc, antenna_results(sc, nominal, skies, snr_spread(sc, grid, skies, nominal)))
     limited = [n for n in notes if n.code == "receiver-limited"]
     assert limited and all(n.values["worst_margin_db"] < n.values["margin_target_db"] for n in limited)
     sentence = notice_text(limited[0])

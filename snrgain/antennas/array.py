@@ -44,6 +44,7 @@ Elements must be of one family (their phase conventions then agree).
 
 from __future__ import annotations
 
+import copy as _copy
 from typing import Any, Literal
 
 import numpy as np
@@ -283,10 +284,33 @@ class Array(Antenna):
         """True where the weights are set under the scenario's own noise sky (``auto_for = "snr"``)."""
         return self.optimised and self.auto_for == "snr"
 
-    def set_under_sky(self, freq_hz: float, *, signal, noise, note: str) -> None:
-        """Called by the pipeline with the sky's signal and noise forms (:func:`snrgain.pipeline.steer_to_sky`)."""
-        if self.uses_sky:
-            self.steer(freq_hz, signal=signal, noise=noise, note=note)
+    def copy(self) -> Array:
+        """A new array with the same elements and parameters and its own record of settings (the stages of the
+        pipeline return new antennas; nothing changes one that a caller holds)."""
+        out = _copy.copy(self)
+        out._steered = dict(self._steered)
+        out._steered_note = dict(self._steered_note)
+        return out
+
+    def under_sky(self, freq_hz: float, *, signal, noise, note: str) -> Array:
+        """A new array set for the sky's signal and noise forms (:func:`snrgain.pipeline.steer`); itself when it is
+        not steered under the sky."""
+        if not self.uses_sky:
+            return self
+        out = self.copy()
+        out.steer(freq_hz, signal=signal, noise=noise, note=note)
+        return out
+
+    def with_weights(self, freq_hz: float, w, note: str) -> Array:
+        """A new array holding the weights ``w`` at ``freq_hz``."""
+        out = self.copy()
+        out.set_weights(freq_hz, w, note)
+        return out
+
+    def held_weights(self, freq_hz: float):
+        """(weights, note) held at ``freq_hz`` once set under a sky or optimised; None otherwise."""
+        f = float(freq_hz)
+        return (self._steered[f], self._steered_note.get(f, "")) if f in self._steered else None
 
     def set_weights(self, freq_hz: float, w: np.ndarray, note: str) -> None:
         """Hold ``w`` as the weights at ``freq_hz`` (largest magnitude 1, the first element's phase 0)."""

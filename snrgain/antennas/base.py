@@ -102,6 +102,21 @@ class Antenna(ABC):
         with np.errstate(divide="ignore"):
             return 10.0 * np.log10(gv), 10.0 * np.log10(gh)
 
+    def at(self, position_m) -> Antenna:
+        """The same antenna standing at ``position_m`` [m east, m north] (a new object; for placing it)."""
+        import copy
+
+        out = copy.copy(self)
+        out.params = self.params.model_copy(update={"position": (float(position_m[0]), float(position_m[1]))})
+        return out
+
+    def gain_key(self) -> str | None:
+        """What its far-field gains depend on, for reuse across positions (a placeable antenna's gains do not
+        change where it stands); None where hidden state also counts (arrays set under a sky, phasing units)."""
+        if not self.placeable:
+            return None
+        return f"{type(self).__name__}:" + self.params.model_dump_json(exclude={"position", "name"})
+
     def check_frequency(self, freq_hz: float) -> None:  # noqa: B027 - valid everywhere unless a family says not
         """Raise ValueError if the model is not valid at ``freq_hz`` [Hz]."""
 

@@ -139,10 +139,33 @@ class Combination(_Array):
                 out["setting"]["error"] = "+-10 deg, +-1 dB"
         return out
 
-    def set_under_sky(self, freq_hz: float, *, signal, noise, note: str) -> None:
+    def copy(self) -> Combination:
+        out = super().copy()
+        out.setting_loss_db = dict(self.setting_loss_db)
+        out.elements = list(self.elements)
+        return out
+
+    def with_parts(self, parts) -> Combination:
+        """A new combination of the same setting over ``parts`` (the scenario's antennas as a stage returned them)."""
+        if len(self.elements) == 2 and all(a is b for a, b in zip(parts, self.elements)):
+            return self
+        out = self.copy()
+        out.elements = list(parts)
+        return out
+
+    def under_sky(self, freq_hz: float, *, signal, noise, note: str) -> Combination:
+        out = self.copy()
         if self.optimised:
-            self.steer(freq_hz, signal=signal, noise=noise, note=note)
-        self.setting_loss(freq_hz, signal, noise)
+            out.steer(freq_hz, signal=signal, noise=noise, note=note)
+        out.setting_loss(freq_hz, signal, noise)
+        return out
+
+    def alone(self, freq_hz: float, which: int, note: str) -> Combination:
+        """The combination passing antenna ``which`` (0 or 1) alone: what a phasing unit does with the other input
+        turned off."""
+        w = np.zeros(2, dtype=complex)
+        w[which] = 1.0
+        return self.with_weights(freq_hz, w, note)
 
     def setting_loss(self, freq_hz: float, signal, noise) -> float:
         """The largest SNR loss [dB] of the present weights under setting errors (:data:`SETTING_ERRORS`)."""

@@ -88,7 +88,10 @@ def _print(layouts, sc) -> None:
 
     console = Console()
     for rank_no, lay in enumerate(layouts, start=1):
-        t = Table(title=f"Layout {rank_no}: {lay.total_db:+.1f} dB in all (SNR gain over {sc.reference.name})")
+        each = "; ".join(
+            f"{d.name} {g:+.1f} dB toward {tgt}" for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets)
+        )
+        t = Table(title=f"Layout {rank_no}: {each} (median SNR gain over {sc.reference.name})")
         for col in ("antenna", "feed (E, N)", "toward", "length", "target", "SNR gain"):
             t.add_column(col, justify="left" if col in ("antenna", "target") else "right")
         for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets):
