@@ -99,7 +99,7 @@ def station_plan(
     >>> g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
     >>> p = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]))
     >>> p.antennas, [round(x, 2) for x in p.added_db], round(p.gain_db, 2)
-    (['a', 'b'], [3.97, 1.5], 5.47)
+    (['a', 'b'], [3.96, 1.15], 5.11)
     >>> p1 = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]), max_antennas=1)
     >>> p1.antennas, p1.not_best[1]["best"], p1.not_best[1]["reason"]
     (['a'], 'b', 'max_antennas')

@@ -220,9 +220,7 @@ class Study:
         if not self.spread:
             sc = replace(
                 sc,
-                uncertainty=replace(
-                    sc.uncertainty, ground=False, noise_deciles=False, local_sources=False, hours=False
-                ),
+                uncertainty=replace(sc.uncertainty, ground=False, noise_deciles=False, local_sources=False),
             )
         return sc
 

@@ -318,6 +318,7 @@ class Array(Antenna):
         w = w / np.max(np.abs(w)) * np.exp(-1j * np.angle(w[0]))
         self._steered[float(freq_hz)] = w
         self._steered_note[float(freq_hz)] = note
+        self._last_freq = float(freq_hz)
 
     def keep_steering_from(self, other: Array) -> None:
         """Use ``other``'s steered weights (a variant of the same array keeps the setting once made)."""

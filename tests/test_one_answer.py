@@ -1,0 +1,164 @@
+"""One pipeline, one answer: every command reaches the same numbers through the same stages.
+
+These are invariants of the design (DESIGN.md, "Shape"), checked on every demo and on two sites of the
+project's own (tests/data/sites: a 160 m and an 80 m station with an SNR-steered array, a placed source and a
+phasing unit): nothing mutates an antenna; a sweep's no-op design equals rank's nominal figure; the plan serves
+each target with its best antenna or says why; a phasing unit is never below its better part; and only the
+pipeline composes the stages.
+"""
+
+import ast
+import tomllib
+
+import numpy as np
+import pytest
+
+import snrgain
+from snrgain import pipeline
+from snrgain import sweep as sw
+from snrgain.scenario import load, read_source
+from tests.conftest import P372_DIR, REPO, SCENARIOS
+
+SITES = sorted((REPO / "tests" / "data" / "sites").glob("*.toml"))
+DEMOS = sorted(SCENARIOS.glob("*.toml"))
+
+
+@pytest.fixture(autouse=True)
+def _p372(monkeypatch):
+    if P372_DIR.is_dir():
+        monkeypatch.setenv("SNRGAIN_P372_DIR", str(P372_DIR))
+
+
+def _needs_data(path):
+    if "p372" in path.read_text() and not P372_DIR.is_dir():
+        pytest.skip("needs the ITU-R P.372 data (../shared/data/p372)")
+
+
+@pytest.mark.parametrize("path", [SCENARIOS / "marrow-fen.toml", *SITES], ids=lambda p: p.stem)
+def test_evaluate_changes_no_antenna(path):
+    sc = load(path)
+    az, el = np.arange(0.0, 360.0, 5.0), np.full(72, 15.0)
+    before = [a.gain_dbi(sc.freq_hz, az, el) for a in sc.antennas]
+    described = [a.describe() for a in sc.antennas]
+    pipeline.evaluate(sc)
+    for a, g, d in zip(sc.antennas, before, described):
+        assert np.array_equal(a.gain_dbi(sc.freq_hz, az, el), g), a.name
+        assert a.describe() == d, a.name
+
+
+def test_steering_under_the_sky_returns_new_antennas():
+    # The marrow-fen four-square steered for the site's noise: the steered copy points its lobe west, the
+    # scenario's own antenna keeps its RDF steering.
+    sc = pipeline.resolve_sources(load(SCENARIOS / "marrow-fen.toml"))
+    grid = pipeline.sky_grid(sc)
+    steered = pipeline.steer(sc, grid, pipeline.build_sky(sc, grid))
+    k = [a.name for a in sc.antennas].index("four-square west")
+    assert steered.antennas[k] is not sc.antennas[k]
+    assert "under the site's noise" in steered.antennas[k].describe()["steered_for"]
+    assert "under the site's noise" not in sc.antennas[k].describe().get("steered_for", "")
+
+
+def _sweep_rows(path, vary):
+    data, label, base = read_source(path)
+    study = sw.Study(data, label, str(base), [sw.parse_vary(vary)])
+    sw.validate(study)
+    return sw.run_designs(study, [(0, (study.varies[0].values[0],))])
+
+
+@pytest.mark.parametrize("path", [*DEMOS, *SITES], ids=lambda p: p.stem)
+def test_sweep_equals_rank_for_every_candidate(path):
+    _needs_data(path)
+    r = snrgain.evaluate(path)
+    targets = [t["name"] for t in r.targets]
+    rank = {(a.name, t): a.snr_gain_nominal_db[i] for a in r.candidates for i, t in enumerate(targets)}
+    # A no-op vary of a section: every design is a whole run through the stages.
+    rows = _sweep_rows(path, f"site: name = {r.site['name']}")
+    assert {(row["antenna"], row["target"]) for row in rows} == set(rank)
+    for row in rows:
+        assert row["snr_gain_db"] == pytest.approx(rank[row["antenna"], row["target"]], abs=0.01), row
+    # A no-op vary of each candidate itself: the shared sky, the candidate alone through the same stages.
+    data, _, _ = read_source(path)
+    for table in [c["name"] for c in data["candidate"]]:
+        # A no-op value: the table's own name (a name with a comma cannot be written in a list; its bearing then).
+        same = f"name = {table}" if "," not in table else f"bearing = {data_value(data, table, 'bearing')}"
+        rows = _sweep_rows(path, f"{table}: {same}")
+        assert rows and all(row["antenna"].startswith(table) for row in rows)  # a two-wire's ports carry its name
+        for row in rows:
+            assert row["snr_gain_db"] == pytest.approx(rank[row["antenna"], row["target"]], abs=0.01), (table, row)
+
+
+def data_value(data, table, key):
+    """The value a candidate table gives ``key`` as the sweep syntax writes it (a no-op vary), or its default 0."""
+    v = next(c for c in data["candidate"] if c["name"] == table).get(key, 0)
+    return v[0] if isinstance(v, list) else v
+
+
+@pytest.mark.parametrize("path", [*DEMOS, *SITES], ids=lambda p: p.stem)
+def test_plan_serves_each_target_with_its_best_or_says_why(path):
+    _needs_data(path)
+    r = snrgain.evaluate(path)
+    for i, tr in enumerate(r.target_results):
+        (service,) = r.plan.by_target[i]
+        if service.antenna != tr.best:
+            why = r.plan.not_best[i]
+            assert why["best"] == tr.best and why["served_by"] == service.antenna
+    # The same with a limit that binds: the plan names what it leaves out.
+    text = path.read_text() + "\n[plan]\nmax_antennas = 1\n"
+    one = snrgain.evaluate(load(tomllib.loads(text), base_dir=path.parent, p372_dir=P372_DIR))
+    for i, tr in enumerate(one.target_results):
+        (service,) = one.plan.by_target[i]
+        assert service.antenna == tr.best or one.plan.not_best[i]["best"] == tr.best
+
+
+@pytest.mark.parametrize("path", [p for p in [*DEMOS, *SITES] if "combination" in p.read_text()], ids=lambda p: p.stem)
+def test_phasing_unit_never_below_its_better_part(path):
+    _needs_data(path)
+    sc = load(path)
+    r = snrgain.evaluate(sc)
+    for ant, res in zip(sc.candidates, r.candidates):
+        if not ant.composite:
+            continue
+        ti = pipeline.nearest_target(sc, ant.params.bearing)
+        parts = [r.reference if e is sc.reference else r.antenna(e.name) for e in ant.elements]
+        better = max(0.0 if p is r.reference else p.snr_gain_nominal_db[ti] for p in parts)
+        assert res.snr_gain_nominal_db[ti] >= better - 1e-6, (res.name, res.snr_gain_nominal_db[ti], better)
+
+
+def test_a_unit_passing_one_antenna_hears_exactly_that_antenna():
+    # Fen Reach's Beverage + loop: toward Japan the unit passes the Beverage alone, and hears the placed street
+    # light exactly as the Beverage does (its pickup is the Beverage's, summed along the wire).
+    r = snrgain.evaluate(REPO / "tests" / "data" / "sites" / "fen-reach-80.toml")
+    unit, bev = r.antenna("Beverage + loop"), r.antenna("Beverage north-east")
+    assert "alone" in unit.parameters["steered_for"]
+    assert np.allclose(unit.snr_gain_nominal_db, bev.snr_gain_nominal_db, atol=1e-9)
+
+
+# -- only the pipeline composes the stages ----------------------------------------------------------------------
+
+STAGE_PIECES = {
+    "antenna_gains": "snrgain/snr.py",
+    "sky_temperatures": "snrgain/snr.py",
+    "snr_gain_over_reference": "snrgain/snr.py",
+    "pickup": "snrgain/placed.py",
+    "received_power": "snrgain/placed.py",
+    "build_skies": "snrgain/noise.py",
+    "snr_spread": "snrgain/spread.py",
+    "station_plan": "snrgain/plan.py",
+}
+"""The pieces the stages are made of (name -> home module): only the pipeline (and the spread's map over
+variants) puts them together; commands call the stages (snrgain.pipeline)."""
+COMPOSERS = {"snrgain/pipeline.py", "snrgain/spread.py", "snrgain/noiseday.py"}
+"""noiseday builds the sky alone for `snrgain noise` (no antennas): a stage on its own, not a composition."""
+
+
+def test_only_the_pipeline_composes_the_stages():
+    sites = []
+    for path in sorted((REPO / "snrgain").rglob("*.py")):
+        rel = path.relative_to(REPO).as_posix()
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.Call):
+                f = node.func
+                name = f.attr if isinstance(f, ast.Attribute) else getattr(f, "id", None)
+                if name in STAGE_PIECES and rel not in COMPOSERS and rel != STAGE_PIECES[name]:
+                    sites.append(f"{rel}:{node.lineno} {name}")
+    assert not sites, "stages composed by hand outside the pipeline:\n" + "\n".join(sites)
