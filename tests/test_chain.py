@@ -98,7 +98,6 @@ def test_chain_in_a_scenario(minimal_text):
     with_pre = lossy.replace(
         "[receiver]", '[chain.preamp]\ngain = "20 dB"\nnoise_figure = "3 dB"\nposition = "antenna"\n[receiver]'
     )
-    with_pre = with_pre.replace("[chain]\nfeedline", "[chain]\nfeedline")
     r2 = snrgain.evaluate(with_pre)
     assert r2.candidates[0].snr_gain_nominal_db[0] > bog.snr_gain_nominal_db[0]  # the scenario has one target
 
