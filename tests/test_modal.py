@@ -128,21 +128,23 @@ def test_bog_on_soil_against_the_builders_range():
     # 1.6 mm wire in 0.8 mm PVC (eps_r 3.5) over moist loam (5 mS/m, 13).  Builders report velocity factors of
     # 0.65-0.77 and terminate at 160-300 ohm (common practice).  The physics (the exact mode) says otherwise for
     # a wire resting on bare soil: VF 0.36-0.40 with |Z0| 190-205 ohm; the builders' velocity factors need the
-    # axis 3-15 cm up (grass, litter), where |Z0| is 355-425 ohm.  But a builder's resistor is |Z0| less the far
-    # ground: one 1.2 m rod in this soil is 143 ohm (Dwight's formula), which leaves 195-280 ohm there, inside
-    # the builders' range.  So a wire held a few cm up, ended on a rod, fits both numbers.  README says so.
+    # axis 3-10 cm up (grass, litter), where |Z0| is 355-410 ohm (at 15 cm the VF reaches 0.78-0.80, past their
+    # range; formerly stated as 3-15 cm).  But a builder's resistor is |Z0| less the far ground: one 1.2 m rod in
+    # this soil is 143 ohm (Dwight's formula), which leaves 195-265 ohm for 2-10 cm, inside the builders' range.
+    # So a wire held a few cm up, ended on a rod, fits both numbers.  README says so.
     on = [_bog("on soil", f=f) for f in (1.83e6, 3.6e6)]
     assert [round(ln.velocity_factor, 2) for ln in on] == [0.36, 0.40]
     assert all(160 < abs(ln.z0) < 300 for ln in on) and all(ln.velocity_factor < 0.65 for ln in on)
     up = [_bog("5 cm", f=f) for f in (1.83e6, 3.6e6)]
     assert all(0.65 <= ln.velocity_factor <= 0.77 for ln in up) and all(abs(ln.z0) > 300 for ln in up)
-    for height in ("3 cm", "5 cm", "8 cm"):
+    for height in ("3 cm", "5 cm", "8 cm", "10 cm"):
         spec = {**BOG, "height": height, "insulation_permittivity": 3.5, "ground": "moist loam", "far_ground": "rod"}
         ant = from_spec(spec)
         assert ant.far_rod_ohm == pytest.approx(143.2, abs=0.1)
         for f in (1.83e6, 3.6e6):
-            assert 0.65 <= ant.line(f).velocity_factor <= 0.77
+            assert 0.65 <= round(ant.line(f).velocity_factor, 2) <= 0.77  # to the two decimals builders quote
             assert 160 < ant.termination_ohm(f) < 300
+    assert all(_bog("15 cm", f=f).velocity_factor > 0.775 for f in (1.83e6, 3.6e6))  # the range's upper edge
     # The closed form cannot follow the wire down onto the soil (its spreading term diverges there).
     cf = _bog("on soil", "closed-form")
     assert abs(cf.velocity_factor / on[0].velocity_factor - 1) > 0.2
