@@ -22,11 +22,13 @@ sqrt(n^2 - 1) (horizontal), n^2 = eps_r - j sigma / (omega eps0) (K. A.
 Norton, Proc. IRE 24 (1936) 1367 and 25 (1937) 1203; the Delta form is J.
 R. Wait's, e.g. "The ancient and modern history of EM ground-wave
 propagation", IEEE Antennas Propag. Mag. 40(5) (1998) 7-24, cited from
-memory).  Close in, where the induction and quasi-static terms rule, |w| is
+memory and not verified against it).  F's series and asymptote follow from
+the error function's expansions (NIST DLMF 7.6.1, 7.12.1), which the tests
+check.  Close in, where the induction and quasi-static terms rule, |w| is
 small and F is near 1: the field is the quasi-static image result, the
 earth's image coefficient for those terms (n^2 - 1) / (n^2 + 1) lying within
 a few per cent of 1 over any soil at these frequencies (P. R. Bannister's
-quasi-static image theory, from memory); far out F takes the field over to
+quasi-static image theory, from memory; attribution not verified); far out F takes the field over to
 Norton's surface wave, 1 / r^2 beyond the numerical distance 1.
 
 F(w) is evaluated with the Faddeeva function: exp(-w) erfc(j sqrt(w)) =

@@ -4,7 +4,10 @@ For n equal hops over a ground distance d via a layer at height h,
 
     elevation = atan((cos(theta) - R / (R + h)) / sin(theta)),  theta = d / (2 n R),
 
-(e.g. K. Davies, "Ionospheric Radio", IEE (1990), Chapter 5, from memory).
+(plane trigonometry in the triangle earth centre, ground point, reflection
+point, checked by the law of sines in the tests; the textbook citation, K.
+Davies, "Ionospheric Radio", IEE (1990), Chapter 5, is from memory and not
+verified).
 The longest hop for an elevation no lower than Delta_min spans the central
 angle 2 (acos(R cos(Delta_min) / (R + h)) - Delta_min).
 

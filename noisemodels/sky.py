@@ -169,7 +169,9 @@ def penetration_elevation_rad(freq_hz, *, critical_freq_hz, layer_height_m):
 
     Reference: the secant law and its spherical-earth form, e.g. K. Davies,
     "Ionospheric Radio", Peter Peregrinus / IEE (1990), Section 5 (oblique
-    propagation) -- cited from memory.
+    propagation) -- cited from memory and not verified; the spherical form is
+    the law of sines in the triangle earth centre, ground point, layer point,
+    and the tests check its flat-earth limit, sin(el) = fc / f.
     """
     f = np.asarray(freq_hz, dtype=float)
     fc = np.asarray(critical_freq_hz, dtype=float)

@@ -21,7 +21,8 @@ source density x spreading x absorption, with
   reflection point, L = L_noon (cos 0.881 chi)^1.3 (0 when chi > 102 deg), with
   L_noon = 430 / (f_MHz + 1.2)^1.98 dB times the secant of the incidence at
   80 km, capped at 3.5 (the form of the absorption law of P. A. George and
-  P. A. Bradley, Telecomm. J. 41, 307 (1974), constants chosen from memory
+  P. A. Bradley, Telecomm. J. 41, 307 (1974); attribution and constants
+  from memory and not verified, so snrgain's assumption, the constants chosen
   so that noon absorption per hop is some 50-100 dB at 1.8 MHz and about
   10 dB at 7 MHz); 1 dB per hop at night; 3 dB per ground reflection between
   hops (an assumption).

@@ -15,10 +15,11 @@ f = fa + (fc - 1) + lc (ft - 1) + lc lt (fr - 1), is the same sum written
 from the antenna's side with external noise fa (see :func:`system_noise_factor`).
 
 Cable losses: matched loss per 100 ft modelled as k1 sqrt(f_MHz) + k2 f_MHz
-(conductor and dielectric terms), with k1, k2 set from typical published
-attenuation of the generic cable types at 1 and 10 MHz (values of the kind
-tabulated in the ARRL Antenna Book's feed-line table; cited from memory, so
-give a measured or datasheet loss where it matters).  Or from the cable's
+(conductor and dielectric terms), with k1, k2 set from typical attenuation
+of the generic cable types at 1 and 10 MHz: values of the kind amateur
+handbooks tabulate, recalled and not verified against any datasheet, so
+snrgain's own assumption (give a measured or datasheet loss where it
+matters).  Or from the cable's
 geometry: :func:`coax_loss_from_geometry` (skin-effect conductor loss plus
 dielectric loss, textbook forms).
 """
@@ -60,7 +61,8 @@ def _two_point(name, z, loss_1mhz, loss_10mhz, vf):
 
 
 CABLES: dict[str, Cable] = {
-    # generic type: impedance, typical matched loss dB/100 ft at 1 MHz and 10 MHz, velocity factor (from memory)
+    # generic type: impedance, typical matched loss dB/100 ft at 1 MHz and 10 MHz, velocity factor (recalled, not
+    # verified against datasheets: snrgain's assumption)
     "RG-58": _two_point("RG-58", 50, 0.33, 1.2, 0.66),
     "RG-8X": _two_point("RG-8X", 50, 0.28, 1.0, 0.78),
     "RG-213": _two_point("RG-213", 50, 0.16, 0.6, 0.66),

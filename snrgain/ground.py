@@ -49,7 +49,10 @@ class Ground:
         return self.permittivity - 1j * self.conductivity_s_per_m / (omega * EPS0_F_PER_M)
 
 
-_P527 = "ITU-R P.527 (electrical characteristics of the surface of the Earth), values at MF/low HF, from memory"
+_P527 = (
+    "ITU-R P.527 (electrical characteristics of the surface of the Earth), values at MF/low HF, from memory "
+    "(not verified against the Recommendation's figure)"
+)
 _OWN = "snrgain's description of the soil, values of the kind common in low-band modelling"
 
 GROUND_TYPES: dict[str, Ground] = {
@@ -65,8 +68,9 @@ GROUND_TYPES: dict[str, Ground] = {
     "built-up land": Ground(1e-3, 5.0, "built-up land", _OWN),
 }
 """Named grounds.  The P.527 entries are the Recommendation's categories, its curves read at about 1-3 MHz
-(from memory); the others are soils described in snrgain's own words with their constants stated (moist loam,
-5 mS/m and relative permittivity 13, is the default).  Numeric constants remain the main form."""
+(from memory, not verified against its figure: snrgain's reading, and no test uses them as a reference); the
+others are soils described in snrgain's own words with their constants stated (moist loam, 5 mS/m and relative
+permittivity 13, is the default).  Numeric constants remain the main form."""
 
 
 @dataclass(frozen=True)

@@ -43,7 +43,8 @@ earth's return current:
    Gamma_e = 1/p, with m = 1 on the surface (the current enters one half
    space) and m = 2 buried, after the leakage-admittance form for earth
    electrodes of E. D. Sunde, "Earth Conduction Effects in Transmission
-   Systems", Dover (1968), Chapter 5 (cited from memory), with h_e = h on the
+   Systems", Dover (1968), Chapter 5 (cited from memory and not verified: the
+   construction is snrgain's own, checked against the exact mode), with h_e = h on the
    surface and the burial depth when buried.
 
 Assumptions: quasi-TEM propagation; soil homogeneous; the air region's

@@ -162,7 +162,8 @@ def wire_over_earth(
     to the magnetic (impedance) part: the thin-insulation form of R. W. P. King, T. T. Wu and L.-C. Shen,
     "The horizontal wire antenna over a conducting or dielectric half space" (Radio Science 9, 1974) and of the
     insulated-antenna theory (King, Smith, Owens and Wu, "Antennas in Matter", MIT Press 1981), cited from
-    memory; a wire resting on the soil has its axis at height b."""
+    memory and not verified against them (the project's own construction); a wire resting on the soil has its
+    axis at height b."""
     omega = 2 * np.pi * freq_hz
     k0 = omega / C_M_PER_S
     n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
@@ -233,7 +234,8 @@ def wire_in_earth(
 
     Deep in the earth the surface terms vanish and this is the insulated wire in an unbounded dissipative
     medium of R. W. P. King's theory (King, Smith, Owens and Wu, "Antennas in Matter", MIT Press 1981, in its
-    thin-insulation form; cited from memory), which the tests check."""
+    thin-insulation form; cited from memory and not verified, so the tests' comparison with it is a consistency
+    check, not an independent one)."""
     from scipy.special import kv
 
     omega = 2 * np.pi * freq_hz

@@ -56,7 +56,7 @@ MODELS = [
     (
         "Receiving chain",
         "Friis cascade (1944); ITU-R P.372 Section 2 system noise factor; cable losses typical of "
-        "the generic types (from memory).",
+        "the generic types (snrgain's assumption, not checked against datasheets).",
     ),
     (
         "Limits",

@@ -10,8 +10,10 @@ at a stated height:
 
     elevation = atan((cos(theta) - R / (R + h)) / sin(theta)),  theta = d / (2 n R),
 
-for n equal hops over the ground distance d (e.g. K. Davies, "Ionospheric
-Radio", IEE (1990), Chapter 5, from memory).  The fewest hops that keep the
+for n equal hops over the ground distance d: plane trigonometry in the
+triangle earth centre, ground point, reflection point (tests/test_targets.py
+checks it by the law of sines; the textbook citation, K. Davies, "Ionospheric
+Radio", IEE (1990), Chapter 5, is from memory and not verified).  The fewest hops that keep the
 elevation at or above ``min_elevation`` and one hop more span the elevations
 the target arrives at, sampled every degree.  The default layer height of
 250 km stands for night-time F-region reflection on the low bands (common

@@ -52,18 +52,25 @@ def test_s_meter_conversions():
     assert s_units(-73.0) == "S9" and s_units(-79.0) == "S8" and s_units(-61.0) == "S9+12"
 
 
-def test_cable_table_and_geometry():
-    # Loss grows with frequency roughly as sqrt(f) at MF (conductor loss); 75 ohm types have Z0 75.
+def test_cable_table_is_consistent_with_the_textbook_coax_loss():
+    # A consistency check, not an independent one: the generic cables' losses (snrgain.chain.CABLES) are the
+    # project's assumption (typical values recalled, not verified against any datasheet).  The two-point fit
+    # k1 sqrt(f) + k2 f passes through both of its points and between them lies above the sqrt(f) line through
+    # the 1 MHz point (the dielectric term is positive).
     c = chain.cable_by_name("RG-213")
-    assert c.loss_db_per_100ft(10e6) == pytest.approx(0.6, abs=1e-9)
-    assert c.loss_db_per_100ft(1e6) == pytest.approx(0.16, abs=1e-9)
+    assert c.loss_db_per_100ft(np.array([1e6, 10e6])) == pytest.approx([0.16, 0.6], abs=1e-9)
+    assert c.k1 > 0 and c.k2 > 0
+    assert c.loss_db_per_100ft(4e6) > 0.16 * np.sqrt(4.0)
     assert chain.cable_by_name("RG-6").impedance_ohm == 75
-    # Geometry of a 50-ohm solid-PE cable like RG-213 (2.26 mm inner, 7.24 mm dielectric): the textbook loss
-    # comes out within 40 % of the table at 10 MHz, and Z0 near 50 ohm.
+    # The textbook coaxial-line forms (Z0 = (60 / sqrt(eps_r)) ln(D/d); conductor loss R' / (2 Z0) with
+    # R' = R_s (1/(pi d) + k_s/(pi D)), R_s = sqrt(pi f mu0 / sigma); e.g. Ramo, Whinnery and Van Duzer, Section
+    # 5.11) for solid-PE cable of RG-213's outline (2.26 mm inner, 7.24 mm dielectric): Z0 within 10 % of the type's
+    # nominal 50 ohm (46.6 ohm: the stranded inner conductor is thinner than its outline), and a loss within 40 %
+    # of the assumed table at 10 MHz.
     loss_db_per_m, z0 = chain.coax_loss_from_geometry(
         10e6, inner_diameter_m=2.26e-3, dielectric_diameter_m=7.24e-3, permittivity=2.25
     )
-    assert z0 == pytest.approx(46.5, abs=2.0)
+    assert z0 == pytest.approx(50.0, rel=0.1)
     assert loss_db_per_m * 30.48 == pytest.approx(0.6, rel=0.4)
     with pytest.raises(ValueError, match="'RG-58'"):
         chain.cable_by_name("RG-999")
@@ -98,7 +105,6 @@ def test_chain_in_a_scenario(minimal_text):
     with_pre = lossy.replace(
         "[receiver]", '[chain.preamp]\ngain = "20 dB"\nnoise_figure = "3 dB"\nposition = "antenna"\n[receiver]'
     )
-    with_pre = with_pre.replace("[chain]\nfeedline", "[chain]\nfeedline")
     r2 = snrgain.evaluate(with_pre)
     assert r2.candidates[0].snr_gain_nominal_db[0] > bog.snr_gain_nominal_db[0]  # the scenario has one target
 

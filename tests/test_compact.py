@@ -33,8 +33,10 @@ def _figures(ant, f, forward_deg):
 def test_terminated_loop_against_nec2(case):
     # Reference: NEC-2 (nec2c), Sommerfeld ground, decks in tests/nec/cases.  NEC's forward is phi = 180 deg,
     # the side opposite the termination; the model's loop is given bearing 180 deg to match.
-    # RDF within 1 dB and gain within 2 dB in every case.  Front-to-back within 3.5 dB where NEC's lies below
-    # 20 dB in both (measured: 1.5, 3.1, 2.8 dB off at 300, 500, 2000 ohm); near the termination of deepest
+    # Tolerances: the README's claims, the measured worst cases (formerly RDF 1 dB, gain 2 dB, F/B 3.5 dB, looser than
+    # the README): RDF within 0.4 dB and gain within 1.7 dB in every case (measured 0.04-0.34 dB and 0.56-1.51 dB).
+    # Front-to-back within 3.1 dB where it lies below 20 dB in both (measured: 1.5, 3.06, 2.8 dB off at 300, 500,
+    # 2000 ohm); near the termination of deepest
     # null one model or both put the rear 20-40 dB down, where its exact depth turns on details neither
     # resolves (the loop's capacitance, its coupling to the ground), so there the check is that both exceed 15 dB.
     ant = from_spec(
@@ -50,10 +52,10 @@ def test_terminated_loop_against_nec2(case):
         }
     )
     got = _figures(ant, case["freq_mhz"] * 1e6, 180.0)
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.4)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.7)
     if case["front_to_back_db"] < 20 and got["front_to_back_db"] < 20:
-        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.5)
+        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.1)
     else:  # a deep null in either model: the terminations of deepest null differ (about 800 vs 1000-1300 ohm)
         assert got["front_to_back_db"] > 15 and case["front_to_back_db"] > 15
     # The feed impedance within 30 % of NEC's (measured: 1-28 %; furthest where the termination is mismatched).
@@ -65,7 +67,8 @@ def test_terminated_loop_against_nec2(case):
 def test_phased_vertical_pair_against_nec2(case):
     # Reference: NEC-2 (nec2c), Sommerfeld ground; each vertical fed through a 2 kohm base load, which the
     # model counts as the element's series loss, plus NEC's own ground-contact resistance, about
-    # 1 / (2 pi sigma 0.55 m) (measured on the long-wire cases).  Tolerances: RDF 1 dB, gain 2 dB, F/B 3 dB.
+    # 1 / (2 pi sigma 0.55 m) (measured on the long-wire cases).  Tolerances: the README's claims, RDF 0.1 dB, gain
+    # 0.7 dB, F/B 0.3 dB (measured 0.004, 0.48-0.67 and 0.03-0.08 dB; formerly 1/2/3 dB, looser than the README).
     contact = 1.0 / (2 * np.pi * case["conductivity_s_per_m"] * 0.55)
     ant = from_spec(
         {
@@ -79,9 +82,9 @@ def test_phased_vertical_pair_against_nec2(case):
         }
     )
     got = _figures(ant, case["freq_mhz"] * 1e6, 0.0)
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
-    assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.0)
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.1)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=0.7)
+    assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=0.3)
 
 
 def test_quarter_wave_pair_of_isotropic_elements_is_a_cardioid():

@@ -90,22 +90,25 @@ def test_coupled_verticals_against_nec2(case):
     # Reference: nec2c, decks in tests/nec/cases, made by tests/nec/make_coupled.py (current forcing solved through
     # NEC's own admittance matrix; line feeds as sources behind 75 ohm).  Over average ground the model's ground
     # loss is NEC's wire-to-ground resistance, from a run of one element (make_coupled.py).
-    # Tolerances: RDF 0.5 dB, F/B 3 dB (or both deeper than 20 dB); feed impedances within 10 % of the largest
+    # Tolerances (the README's claims, the measured worst cases; formerly RDF 0.5 dB and F/B 3 dB only where a rear
+    # was above -20 dB, looser than the README): RDF 0.12 dB (measured 0.007-0.112 dB); front-to-back 1.3 dB where
+    # either rear is less than 20 dB down (measured 0.26 and 1.21 dB), 3.4 dB between deeper nulls (measured
+    # 1.6-3.3 dB); feed impedances within 10 % of the largest
     # (a driven impedance can pass near zero, as the four-square's back element's does) for the quadrature-fed
-    # pair over both grounds and every case over perfect ground (measured: 7.6-9.7 %).  The rest within 15 %
+    # pair over both grounds and every case over perfect ground (measured: 7.6-9.7 %).  The rest within 14.2 %
     # (measured: 11.1 % line-fed pair, 14.1 % four-square, both over average ground): there NEC's wire-to-ground
     # resistance shifts from element to element with the coupled currents (by 44.8-53.5 ohm against 49.3 ohm
     # alone, measured on the pair), where the model keeps one ground loss per element; and the induced-EMF method
     # takes sinusoidal currents (a lone element: 36.5 + j21.3 ohm against NEC's 39.6 + j22.8 ohm for 25 mm tubing).
     ant = _model(case)
     got = _figures(ant, 90.0 - case["forward_phi_deg"])
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.5)
-    if case["front_to_back_db"] < 20 or got["front_to_back_db"] < 20:
-        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.0)
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.12)
+    shallow = case["front_to_back_db"] < 20 or got["front_to_back_db"] < 20
+    assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=1.3 if shallow else 3.4)
     z_nec = np.array([complex(*z) for z in case["feed_impedances_ohm"]])
     z = ant.feed_impedances_ohm(F)
     tight = case["ground"] is None or (case["layout"] == "pair" and case["feed"] == "current")
-    assert np.max(np.abs(z - z_nec)) < (0.10 if tight else 0.15) * np.max(np.abs(z_nec))
+    assert np.max(np.abs(z - z_nec)) < (0.10 if tight else 0.142) * np.max(np.abs(z_nec))
     if case["feed"] == "lines":  # the coupled currents: neither equal nor in quadrature
         d = ant.describe()
         assert d["current_magnitudes"][1] == pytest.approx(case["current_magnitudes"][1], rel=0.10)

@@ -52,7 +52,6 @@ def test_the_best_layout_beats_random_valid_placements(solved):
     rng = np.random.default_rng(7)
     randoms = [pr.random_valid(rng).worth_db for _ in range(25)]
     assert layouts[0].worth_db >= max(randoms)
-    assert layouts[0].worth_db >= layouts[-1].worth_db
 
 
 def test_layout_is_reproducible():

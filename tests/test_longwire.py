@@ -15,7 +15,7 @@ from snrgain.ground import C_M_PER_S, GROUND_TYPES
 from tests.conftest import REPO
 
 NEC_DIR = REPO / "tests" / "nec"
-REF = json.loads((NEC_DIR / "reference.json").read_text())
+DEEMB = json.loads((NEC_DIR / "deembedded.json").read_text())
 GRID = upper_hemisphere(32)
 EL20 = np.radians(20.0)
 
@@ -46,47 +46,29 @@ def _figures(ant, f):
     }
 
 
-def _assert_agrees(got, case, *, rdf_db=0.5, fb_db=2.0):
-    """The model's figures beside a stored NEC-2 case: RDF, forward gain within 1 dB, front-to-back (unless both
-    are deeper than 20 dB)."""
+def _assert_agrees(got, case, *, rdf_db, gain_db, fb_db):
+    """The model's figures beside a stored NEC-2 case: RDF, forward gain and front-to-back within the given dB
+    (front-to-back skipped only where both put the rear more than 20 dB down, where the depth of a null turns on
+    details neither model claims)."""
     assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=rdf_db)
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.0)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=gain_db)
     if not (got["front_to_back_db"] > 20 and case["front_to_back_db"] > 20):
         assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=fb_db)
 
 
-def _compare(case):
-    """The model beside nec2c for one stored case.
-
-    NEC-2 joins a wire to a lossy Sommerfeld ground through a contact of its own: its feed impedance
-    exceeds the line model's by about 60 ohm at 5 mS/m and 300 ohm at 1 mS/m (seen while building these
-    cases: the excess stays the same whatever the termination).  So the model's ground rods are set to
-    that excess, read off the stored NEC feed impedance; the pattern figures are then compared.
-    """
-    f = case["freq_mhz"] * 1e6
-    bare = _model(case, termination=case["termination_ohm"])
-    rods = max(case["feed_impedance_ohm"][0] - bare.feed_point_impedance(f).real, 0.0)
-    ant = _model(case, termination=case["termination_ohm"], rods=rods)
-    return _figures(ant, f)
-
-
-@pytest.mark.parametrize("case", REF["cases"], ids=[c["name"] for c in REF["cases"]])
-def test_against_nec2_over_sommerfeld_ground(case):
-    # Reference: NEC-2 (nec2c, Debian's package), Sommerfeld ground, decks in tests/nec/cases (make_reference.py).
-    # Tolerances set by the issue: RDF at 20 deg within 1 dB, forward gain within 2 dB, front-to-back within 3 dB.
-    got = _compare(case)
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=1.0)
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=2.0)
-    assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.0)
-
-
 def test_rdf_trend_with_termination_follows_nec2():
-    # Reference: the stored nec2c sweep of the termination resistor (1 mS/m ground, 150 m at 1.83 MHz).
-    sweep = REF["sweep"]
+    # Reference: the stored nec2c sweep of the termination resistor (150 m at 1.83 MHz, 3 m up over 1 mS/m,
+    # 200-900 ohm) with NEC's wire-to-ground junction taken out (deembedded.json; the model's rods are zero, no
+    # fitting).  Each step's change of RDF follows NEC's: measured within 0.02 dB per step (NEC falls 0.21-0.46 dB per
+    # step), checked to 0.05 dB.  The absolute values are checked in test_against_nec2_with_the_junction_taken_out.
+    sweep = [c for c in DEEMB["cases"] if "-r" in c["name"]]
+    assert len(sweep) == 6
     nec = np.array([c["rdf_db"] for c in sweep])
-    mine = np.array([_compare(c)["rdf_db"] for c in sweep])
-    assert np.all(np.sign(np.diff(nec)) == np.sign(np.diff(mine)))
-    np.testing.assert_allclose(mine, nec, atol=1.0)
+    mine = np.array(
+        [_figures(_model(c, termination=c["termination_ohm"]), c["freq_mhz"] * 1e6)["rdf_db"] for c in sweep]
+    )
+    assert np.all(np.diff(nec) < -0.2)  # the reference itself moves well beyond the tolerance below
+    np.testing.assert_allclose(np.diff(mine), np.diff(nec), atol=0.05)
 
 
 @pytest.mark.skipif(shutil.which("nec2c") is None, reason="nec2c (Debian package) not installed")
@@ -96,13 +78,13 @@ def test_stored_reference_reproduced_by_nec2c():
     sys.path.insert(0, str(NEC_DIR))
     from necdeck import metrics, parse_output, run_nec2c
 
-    case = REF["cases"][0]
+    case = DEEMB["cases"][0]
     deck = (NEC_DIR / case["deck"]).read_text()
     with tempfile.TemporaryDirectory() as tmp:
         out = parse_output(run_nec2c(deck, Path(tmp), "check"))
     m = metrics(out["theta_deg"], out["phi_deg"], out["gain_dbi"])
-    assert m["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.01)
-    assert m["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=0.01)
+    for key in ("rdf_db", "forward_gain_dbi", "front_to_back_db"):
+        assert m[key] == pytest.approx(case[key], abs=0.01)
 
 
 @pytest.mark.nec
@@ -147,9 +129,12 @@ def test_against_pynec_over_perfect_ground(f_mhz, length, height):
         }
     )
     got = _figures(ant, f_mhz * 1e6)
-    assert got["rdf_db"] == pytest.approx(ref["rdf_db"], abs=2.0)
-    assert got["forward_gain_dbi"] == pytest.approx(ref["forward_gain_dbi"], abs=2.0)
-    assert got["front_to_back_db"] == pytest.approx(ref["front_to_back_db"], abs=3.0)
+    # Tolerances: the README's claim, the largest differences measured on these three wires (RDF 0.85-1.57 dB, gain
+    # 0.73-1.49 dB, front-to-back 0.47-1.55 dB, the model above PyNEC in each; formerly 2/2/3 dB, looser than the
+    # README's "within 1.5 dB", which the RDF and front-to-back of the 200 m wire at 1.83 MHz exceeded).
+    assert got["rdf_db"] == pytest.approx(ref["rdf_db"], abs=1.57)
+    assert got["forward_gain_dbi"] == pytest.approx(ref["forward_gain_dbi"], abs=1.49)
+    assert got["front_to_back_db"] == pytest.approx(ref["front_to_back_db"], abs=1.55)
 
 
 # -- line constants ----------------------------------------------------------------
@@ -174,15 +159,31 @@ def test_velocity_factor_of_a_3m_wire_near_09():
     assert 400 <= abs(ln.z0) <= 650  # common practice: a few hundred ohms, 450-600 for AWG 14 at a few metres
 
 
-@pytest.mark.parametrize("ground", ["moist loam", "sandy soil", "moist clay"])
-def test_bog_velocity_factor_and_z0(ground):
-    # Common practice (builders' measurements): an insulated wire on typical soil shows a velocity factor of
-    # roughly 0.65 to 0.8 and wants a termination of a few hundred ohms.  The model gives 0.62-0.67 at its
-    # default 2 cm axis height on these soils and is sensitive to that height, so the check is loose.
-    ant = from_spec({"family": "bog", "length": "80 m", "ground": ground})
-    ln = ant.line(1.83e6)
-    assert 0.55 <= ln.velocity_factor <= 0.85
-    assert 150 <= abs(ln.z0) <= 600
+# README ("Limits of validity"): 1.6 mm wire in 0.8 mm PVC (eps_r 3.5) over moist loam at 1.83-3.6 MHz; per
+# placement the velocity factor range (to 0.01), |Z0| (to the README's rounding) and, buried, the attenuation.
+_BOG_README = [
+    ({"height": "on soil"}, (0.36, 0.40), (190, 205), None),
+    ({"height": "2 cm"}, (0.62, 0.65), (335, 345), None),
+    ({"height": "5 cm"}, (0.70, 0.72), (375, 385), None),
+    ({"height": "10 cm"}, (0.75, 0.77), (405, 410), None),
+    ({"depth": "5 cm"}, (0.21, 0.26), (105, 130), (66, 106)),
+]
+
+
+@pytest.mark.parametrize("where, vf, z0, att", _BOG_README, ids=[next(iter(w.values())) for w, *_ in _BOG_README])
+def test_bog_line_constants_as_the_readme_states(where, vf, z0, att):
+    # The README's statement of the model's own BOG values, pinned so that the documentation cannot drift from the
+    # code: a consistency check, not an independent reference.  (Formerly VF 0.55-0.85 and |Z0| 150-600 ohm on three
+    # soils, looser than anything the README says.)  The independent check, the builders' 0.65-0.77 and 160-300 ohm
+    # (common practice), is tests/test_modal.py::test_bog_on_soil_against_the_builders_range.
+    spec = {"family": "bog", "length": "80 m", "diameter": "1.6 mm", "insulation_thickness": "0.8 mm"}
+    ant = from_spec({**spec, **where, "insulation_permittivity": 3.5, "ground": "moist loam"})
+    for f in (1.83e6, 3.6e6):
+        ln = ant.line(f)
+        assert vf[0] <= round(ln.velocity_factor, 2) <= vf[1]
+        assert z0[0] <= abs(ln.z0) <= z0[1]
+        if att is not None:
+            assert att[0] <= round(ln.attenuation_db_per_100m) <= att[1]
 
 
 def test_skin_effect_internal_impedance_limit():
@@ -371,13 +372,15 @@ def test_frequency_outside_validity():
         ant.check_frequency(50e6)
 
 
-DEEMB = json.loads((NEC_DIR / "deembedded.json").read_text())
-# Measured outliers, named: the 30 mS/m wire at 7.1 MHz reads 0.84 dB more RDF than NEC; the 1.2 m wire over
-# 1 mS/m at 3.6 MHz 4.4 dB more front-to-back (NEC 9.6 dB); the 300 ohm termination of the sweep 4.0 dB less
-# (NEC 23.4 dB, the model 19.4 dB, near the resistor of deepest null, where the depth turns on details).  In all
-# three NEC's own answer has not settled: it moves with the down-leads' segmentation (the next test).
-_RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 1.0}
-_FB_WIDER = {"f360-l70-h12-s1ms-deemb": 4.5, "f183-l150-h3-s1ms-r300-deemb": 4.5}
+# Tolerances: the README's claims ("Long wires"), each the largest difference measured on these decks rounded up to
+# 0.01 dB: RDF 0.38 dB, forward gain 0.91 dB, front-to-back 0.60 dB on the seven wires and 1.22 dB on the termination
+# sweep.  Named outliers: the 30 mS/m wire at 7.1 MHz reads 0.84 dB more RDF than NEC; the 1.2 m wire over 1 mS/m at
+# 3.6 MHz 4.44 dB more front-to-back (NEC 9.6 dB); the 300 ohm termination of the sweep 4.04 dB less (NEC 23.4 dB,
+# the model 19.4 dB, near the resistor of deepest null, where the depth turns on details; at 400 ohm both exceed
+# 20 dB, 29.4 and 23.2 dB, and the front-to-back is not compared).  In all three NEC's own answer has not settled: it
+# moves with the down-leads' segmentation (the next test).
+_RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 0.84}
+_FB_WIDER = {"f360-l70-h12-s1ms-deemb": 4.44, "f183-l150-h3-s1ms-r300-deemb": 4.04}
 
 
 @pytest.mark.parametrize("case", DEEMB["cases"], ids=[c["name"] for c in DEEMB["cases"]])
@@ -385,12 +388,15 @@ def test_against_nec2_with_the_junction_taken_out(case):
     # Reference: nec2c with its wire-to-ground junction resistance measured on a stub of the same segmentation and
     # subtracted by load cards (tests/nec/make_deembedded.py; 62 ohm for a 2 m bottom segment over 5 mS/m, 164-229
     # ohm over 1 mS/m).  The model gets the true rod resistance of NEC's ideal connections: zero, no fitting.
-    # Tolerances: RDF 0.5 dB, forward gain 1 dB, front-to-back 2 dB or both deeper than 20 dB (measured: RDF
-    # 0.02-0.38 dB, gain 0.05-0.90 dB, F/B 0.0-0.6 dB but for the outliers named above).
     f = case["freq_mhz"] * 1e6
     ant = _model(case, termination=case["termination_ohm"])
+    fb = 1.22 if "-r" in case["name"] else 0.6
     _assert_agrees(
-        _figures(ant, f), case, rdf_db=_RDF_WIDER.get(case["name"], 0.5), fb_db=_FB_WIDER.get(case["name"], 2.0)
+        _figures(ant, f),
+        case,
+        rdf_db=_RDF_WIDER.get(case["name"], 0.38),
+        gain_db=0.91,
+        fb_db=_FB_WIDER.get(case["name"], fb),
     )
 
 
@@ -428,11 +434,12 @@ def test_against_nec2_beverages_of_builders_lengths(case):
     # Reference: nec2c 1.3 with the one-line fix to fbar() (tests/nec/nec2c-fbar.patch, built by build_nec2c.sh),
     # which lets NEC-2 run wires longer than a wavelength over Sommerfeld ground (the packaged engine gives a feed
     # impedance of -1.5 Mohm on the first of these decks; long.json's engine_check).  Terminated wires of 1.2-2.4
-    # wavelengths, the junction taken out as above (tests/nec/make_long.py).  Tolerances as above, RDF 0.5 dB,
-    # gain 1 dB, front-to-back 2 dB (measured: RDF 0.00-0.11 dB, gain 0.01-0.43 dB, F/B 0.3-1.5 dB).
+    # wavelengths, the junction taken out as above (tests/nec/make_long.py).  Tolerances: the README's claims, RDF
+    # 0.11 dB, forward gain 0.43 dB, front-to-back 1.5 dB (measured: RDF 0.00-0.105 dB, gain 0.01-0.43 dB, F/B
+    # 0.3-1.46 dB; formerly 0.5/1/2 dB, looser than the README).
     f = case["freq_mhz"] * 1e6
     ant = _model(case, termination=case["termination_ohm"])
-    _assert_agrees(_figures(ant, f), case)
+    _assert_agrees(_figures(ant, f), case, rdf_db=0.11, gain_db=0.43, fb_db=1.5)
 
 
 def test_the_engine_fix_changes_nothing_below_a_wavelength():

@@ -128,21 +128,23 @@ def test_bog_on_soil_against_the_builders_range():
     # 1.6 mm wire in 0.8 mm PVC (eps_r 3.5) over moist loam (5 mS/m, 13).  Builders report velocity factors of
     # 0.65-0.77 and terminate at 160-300 ohm (common practice).  The physics (the exact mode) says otherwise for
     # a wire resting on bare soil: VF 0.36-0.40 with |Z0| 190-205 ohm; the builders' velocity factors need the
-    # axis 3-15 cm up (grass, litter), where |Z0| is 355-425 ohm.  But a builder's resistor is |Z0| less the far
-    # ground: one 1.2 m rod in this soil is 143 ohm (Dwight's formula), which leaves 195-280 ohm there, inside
-    # the builders' range.  So a wire held a few cm up, ended on a rod, fits both numbers.  README says so.
+    # axis 3-10 cm up (grass, litter), where |Z0| is 355-410 ohm (at 15 cm the VF reaches 0.78-0.80, past their
+    # range; formerly stated as 3-15 cm).  But a builder's resistor is |Z0| less the far ground: one 1.2 m rod in
+    # this soil is 143 ohm (Dwight's formula), which leaves 195-265 ohm for 2-10 cm, inside the builders' range.
+    # So a wire held a few cm up, ended on a rod, fits both numbers.  README says so.
     on = [_bog("on soil", f=f) for f in (1.83e6, 3.6e6)]
     assert [round(ln.velocity_factor, 2) for ln in on] == [0.36, 0.40]
     assert all(160 < abs(ln.z0) < 300 for ln in on) and all(ln.velocity_factor < 0.65 for ln in on)
     up = [_bog("5 cm", f=f) for f in (1.83e6, 3.6e6)]
     assert all(0.65 <= ln.velocity_factor <= 0.77 for ln in up) and all(abs(ln.z0) > 300 for ln in up)
-    for height in ("3 cm", "5 cm", "8 cm"):
+    for height in ("3 cm", "5 cm", "8 cm", "10 cm"):
         spec = {**BOG, "height": height, "insulation_permittivity": 3.5, "ground": "moist loam", "far_ground": "rod"}
         ant = from_spec(spec)
         assert ant.far_rod_ohm == pytest.approx(143.2, abs=0.1)
         for f in (1.83e6, 3.6e6):
-            assert 0.65 <= ant.line(f).velocity_factor <= 0.77
+            assert 0.65 <= round(ant.line(f).velocity_factor, 2) <= 0.77  # to the two decimals builders quote
             assert 160 < ant.termination_ohm(f) < 300
+    assert all(_bog("15 cm", f=f).velocity_factor > 0.775 for f in (1.83e6, 3.6e6))  # the range's upper edge
     # The closed form cannot follow the wire down onto the soil (its spreading term diverges there).
     cf = _bog("on soil", "closed-form")
     assert abs(cf.velocity_factor / on[0].velocity_factor - 1) > 0.2
@@ -228,9 +230,12 @@ def test_the_line_model_is_the_exact_mode_over_the_table():
 
 
 def _king_unbounded(f, eps, sigma, eps_i, a, b):
-    """King's insulated wire in an unbounded dissipative medium (King, Smith, Owens and Wu, "Antennas in Matter",
-    1981; the formula quoted from memory): k_L = k2 [1 + H0(k4 b) / (k4 b ln(b/a) H1(k4 b))]^(1/2), exp(-i w t),
-    k2 the insulation's wavenumber, k4 the medium's.  Valid where |k4|^2 >> |k_L|^2."""
+    """The thin-insulation closed form of an insulated wire in an unbounded dissipative medium, as the project
+    recalls it from R. W. P. King's insulated-antenna theory (King, Smith, Owens and Wu, "Antennas in Matter",
+    1981): k_L = k2 [1 + H0(k4 b) / (k4 b ln(b/a) H1(k4 b))]^(1/2), exp(-i w t), k2 the insulation's wavenumber,
+    k4 the medium's; valid where |k4|^2 >> |k_L|^2.  NOT verified: the formula could not be checked against the
+    book or the papers (Wu, King and Giri, Radio Science 8 (1973) 699, treat the same problem), so it is the
+    project's own assumption and the tests that use it are consistency checks, not independent ones."""
     from scipy.special import hankel1
 
     w = 2 * np.pi * f
@@ -242,9 +247,11 @@ def _king_unbounded(f, eps, sigma, eps_i, a, b):
 
 
 @pytest.mark.parametrize("f", [1.83e6, 3.6e6])
-def test_buried_wire_deep_in_sea_water_is_kings(f):
-    # Deep in sea water (4 S/m, eps_r 80), 1 mm wire in 3 mm of eps_r 2.3 insulation, where King's conditions
-    # hold: velocity factor within 0.2 %, attenuation within 3 % (measured 0.03 % and 0.7-1.1 %).
+def test_buried_wire_deep_in_sea_water_agrees_with_the_recalled_thin_insulation_form(f):
+    # Consistency check (the closed form above is unverified): deep in sea water (4 S/m, eps_r 80), 1 mm wire in
+    # 3 mm of eps_r 2.3 insulation, where the closed form's conditions hold, the exact buried mode and the closed
+    # form, two independent constructions of the project's, agree: velocity factor within 0.2 %, attenuation within
+    # 3 % (measured 0.03 % and 0.7-1.1 %).
     k0 = 2 * np.pi * f / C_M_PER_S
     g = modal.wire_in_earth(f, 80.0, 1e-3, 80.0, 4.0, 0j, complex(0.0, k0 / 0.3), 3e-3, 2.3)[0]
     king = _king_unbounded(f, 80.0, 4.0, 2.3, 1e-3, 3e-3)
@@ -255,7 +262,8 @@ def test_buried_wire_deep_in_sea_water_is_kings(f):
 def test_buried_bog_in_soil_feels_the_surface():
     # 1.6 mm wire in 0.8 mm PVC (eps_r 3.5) in moist loam (5 mS/m, 13) at 1.83 MHz.  Deep down the surface
     # terms vanish (20 m and 50 m agree); 5 cm down the air above speeds the wave up (VF 0.21 against 0.19 deep).
-    # King's form reads VF 0.15 and 12 dB/100 m here: thin insulation in soil meets neither of its conditions
+    # The recalled closed form (unverified) reads VF 0.15 and 12 dB/100 m here: thin insulation in soil meets neither
+    # of its conditions
     # (|k4|^2 is 1.2 |k_L|^2, not >> it, and the soil's own admittance, in series with the insulation's, is of
     # the same size), which this mode keeps.  The closed form reads 15 % slower at 5 cm.
     f = 1.83e6

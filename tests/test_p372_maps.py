@@ -89,7 +89,9 @@ def test_falls_with_frequency_at_night(site):
 
 def test_env_var_supplies_folder(monkeypatch):
     monkeypatch.setenv(p372_maps.ENV_VAR, str(P372_DIR))
-    assert np.isfinite(p372.atmospheric(0.0, 0.0, month=3, freq_hz=2e6, time_block=1).fa_db)
+    via_env = p372.atmospheric(0.0, 0.0, month=3, freq_hz=2e6, time_block=1)
+    named = p372.atmospheric(0.0, 0.0, month=3, freq_hz=2e6, time_block=1, data_dir=P372_DIR)
+    assert via_env.fa_db == named.fa_db and via_env.du_db == named.du_db and via_env.dl_db == named.dl_db
 
 
 def test_missing_folder_says_how_to_get_data(monkeypatch, tmp_path):

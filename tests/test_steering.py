@@ -119,7 +119,8 @@ def _pv(name, extra=""):
 
 
 def test_maximum_snr_weights_beat_every_element_and_every_phasing():
-    # The maximum-SNR weights (generalised eigenvector; Van Trees, Optimum Array Processing, Section 6.2) under a
+    # The maximum-SNR weights (generalised eigenvector; Van Trees, Optimum Array Processing, Section 6.2, citation
+    # unverified: the check here is the brute-force scan, independent of it) under a
     # sky with a strong local source 90 deg off the target: at least as good as each element alone and as every
     # phasing of equal amplitudes on a 5 deg grid, to 0.05 dB (one month, one hour: the steering's own sky).
     import snrgain

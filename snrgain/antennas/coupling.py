@@ -21,8 +21,9 @@ image dipole.  The self impedance is the same integral at rho = the wire's
 radius.  For two half-wave dipoles side by side this reproduces the closed
 forms in sine and cosine integrals (Balanis, eq. (8-71)), which the tests
 check, and over a perfect ground a quarter-wave monopole's self impedance
-is 36.5 + j21.3 ohm (Balanis, Section 4.6; Kraus, "Antennas", 2nd ed.,
-Section 9-5, from memory).
+is 36.5 + j21.3 ohm (half the half-wave dipole's 73 + j42.5: Balanis,
+Section 4.6; a further citation of Kraus, "Antennas", 2nd ed., Section 9-5,
+was from memory and is dropped).
 
 Validity: thin wires (radius much below the height and the spacing), the
 currents sinusoidal (the induced-EMF assumption: good for elements up to

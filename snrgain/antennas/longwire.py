@@ -507,7 +507,7 @@ class Bog(LongWire):
     radius) 1.6 mm wire in 0.8 mm PVC over moist loam has velocity factor 0.36-0.40 and |Z0| 190-205 ohm at
     1.83-3.6 MHz; held 2 cm up by grass (the default), 0.62-0.65 and 340 ohm; 5 cm up, 0.70-0.72 and 380 ohm
     (the exact mode, snrgain.modal; PVC taken as eps_r 3.5).  Builders who lay insulated wire on lawns report
-    0.65-0.77 (common practice), which this model reaches with the axis 3-15 cm up; the default of 2 cm sits at
+    0.65-0.77 (common practice), which this model reaches with the axis 3-10 cm up; the default of 2 cm sits at
     the low end of what grass holds a wire at.  Buried (``depth``, the axis below the surface) the same wire is
     slower and lossier still: VF 0.21 and 66 dB/100 m at 5 cm, |Z0| about 105 ohm (snrgain.modal.wire_in_earth).
     Measure your wire (``snrgain calibrate``) and give its constants when you can.

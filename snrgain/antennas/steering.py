@@ -13,8 +13,9 @@ with weights W_d it is the quadratic form u^H C u, C = sum_d W_d r(d) r(d)^H
 is largest for the principal generalised eigenvector of (S, N); for a
 single target direction a, u ~ N^-1 a: the maximum-SNR weights of array
 signal processing (H. L. Van Trees, "Optimum Array Processing", Wiley (2002),
-Section 6.2, from memory; R. A. Monzingo and T. W. Miller, "Introduction to
-Adaptive Arrays", Wiley (1980), Ch. 3).  Under a uniform sky and no
+Section 6.2, from memory, section not verified; R. A. Monzingo and T. W.
+Miller, "Introduction to Adaptive Arrays", Wiley (1980), Ch. 3; the tests
+check the result against brute-force scans, not against these texts).  Under a uniform sky and no
 receiver noise N is the directivity form and the same weights maximise RDF.
 
 Those weights have free amplitudes: at close spacing they ask for

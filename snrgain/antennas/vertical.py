@@ -28,7 +28,9 @@ Default ground loss: 10 ohm, roughly what a quarter-wave vertical with a
 modest buried radial system (a dozen or two radials) shows (common practice;
 G. H. Brown, R. F. Lewis and J. Epstein, "Ground systems as a factor in antenna
 efficiency", Proc. IRE 25(6), 753 (1937), measured the loss falling toward
-zero with 120 radials -- cited from memory).  The loss scales signal and sky
+zero with 113 radials -- cited from memory; the paper not read, its title,
+date and largest radial count confirmed only by secondary sources; formerly
+given as 120 radials).  The 10 ohm is snrgain's assumption.  The loss scales signal and sky
 noise alike, so it changes SNR only where receiver noise matters.
 """
 
