@@ -221,20 +221,33 @@ def preamp_advice(chain: Chain, antenna_temperature_k: float, margin_db: float) 
     return np.nan, None
 
 
-def from_section(c, *, freq_hz: float, receiver_noise_figure_db: float) -> Chain:
-    """The chain of a validated [chain] section (the scenario's, or an antenna's own ``chain`` table)."""
-    stages = [passive("transformer", c.transformer_loss)]
-    if c.feedline is not None:
-        fl = c.feedline
-        loss = fl.loss if fl.loss is not None else float(cable_by_name(fl.cable).loss_db(freq_hz, fl.length))
-        stages.append(passive("feed line", loss))
+def cascade(
+    *,
+    freq_hz: float,
+    receiver_noise_figure_db: float,
+    transformer_loss_db: float = 0.0,
+    feedline_loss_db: float | None = None,
+    cable: str | None = None,
+    feedline_length_m: float | None = None,
+    preamp_gain_db: float | None = None,
+    preamp_noise_figure_db: float | None = None,
+    preamp_at_antenna: bool = False,
+) -> Chain:
+    """A receiving chain from its parts (SI and dB): the transformer's loss, a feed line (its loss, or a cable
+    type and length), an optional preamplifier (right after the transformer, or before the receiver) and the
+    receiver.  The input schema builds this at the edge (snrgain.scenario); the physics needs no schema."""
+    stages = [passive("transformer", transformer_loss_db)]
+    if feedline_loss_db is None and cable is not None and feedline_length_m is not None:
+        feedline_loss_db = float(cable_by_name(cable).loss_db(freq_hz, feedline_length_m))
+    if feedline_loss_db is not None:
+        stages.append(passive("feed line", feedline_loss_db))
     preamp_index = None
-    if c.preamp is not None:
-        amp = amplifier("preamplifier", gain_db=c.preamp.gain, noise_figure_db=c.preamp.noise_figure)
-        preamp_index = 1 if c.preamp.position == "antenna" else len(stages)
+    if preamp_gain_db is not None:
+        amp = amplifier("preamplifier", gain_db=preamp_gain_db, noise_figure_db=preamp_noise_figure_db)
+        preamp_index = 1 if preamp_at_antenna else len(stages)
         stages.insert(preamp_index, amp)
     stages.append(amplifier("receiver", gain_db=0.0, noise_figure_db=receiver_noise_figure_db))
-    return Chain(tuple(stages), preamp_index, None if c.feedline is None else c.feedline.cable)
+    return Chain(tuple(stages), preamp_index, cable)
 
 
 def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:

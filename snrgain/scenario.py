@@ -495,6 +495,23 @@ class Scenario:
         )
 
 
+def chain_from_section(c, *, freq_hz: float, receiver_noise_figure_db: float):
+    """The chain of a validated [chain] section (the scenario's, or an antenna's own ``chain`` table), built from
+    its values by :func:`snrgain.chain.cascade`."""
+    fl, amp = c.feedline, c.preamp
+    return chainmod.cascade(
+        freq_hz=freq_hz,
+        receiver_noise_figure_db=receiver_noise_figure_db,
+        transformer_loss_db=c.transformer_loss,
+        feedline_loss_db=None if fl is None else fl.loss,
+        cable=None if fl is None else fl.cable,
+        feedline_length_m=None if fl is None else fl.length,
+        preamp_gain_db=None if amp is None else amp.gain,
+        preamp_noise_figure_db=None if amp is None else amp.noise_figure,
+        preamp_at_antenna=amp is not None and amp.position == "antenna",
+    )
+
+
 def _inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
     spec = dict(spec)
     name = spec.get("family")
@@ -676,7 +693,7 @@ def load(
     if model is not None:
         try:
             receiver = _receiver(model.receiver, model.band.bandwidth)
-            chain = chainmod.from_section(model.chain, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
+            chain = chain_from_section(model.chain, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
         except ValueError as exc:
             problems.append(("receiver", str(exc)))
     if model is not None and antennas and not problems:
@@ -685,7 +702,7 @@ def load(
         raise ScenarioError(label, problems)
     weights = np.array([t.weight for t in model.target])
     own = [
-        chainmod.from_section(c, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
+        chain_from_section(c, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
         if c is not None
         else chain
         for c in chains
