@@ -32,7 +32,7 @@ import numpy as np
 
 from snrgain.constants import WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S
-from snrgain.results import Notice
+from snrgain.notices import Notice
 
 OFF_LOT_TOLERANCE_M = 0.1
 """Beyond the lot by less than this [m] is on it (positions written to 0.1 m)."""

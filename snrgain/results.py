@@ -4,7 +4,7 @@
 (:class:`snrgain.noise.SkySeries`), one :class:`AntennaResult` for the
 reference and for each candidate (ranked, best first), the pattern cuts the
 figures draw, and :class:`Notice` records (a code and its values; the
-sentences are written at the edge, :mod:`snrgain.messages`).
+sentences are written at the edge, :mod:`snrgain.messages`; the class lives in :mod:`snrgain.notices`).
 :meth:`Results.to_dict` is the JSON output.
 """
 
@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from snrgain.noise import SkySeries
+from snrgain.notices import Notice  # re-exported: the documented path snrgain.results.Notice
 
 SCHEMA_VERSION = "2"
 
@@ -81,21 +82,6 @@ class AntennaResult:
     def __repr__(self) -> str:
         per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
         return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
-
-
-@dataclass(frozen=True)
-class Notice:
-    """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
-
-    Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
-    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg,
-    lobe_deg, off_deg: an array whose main lobe points more than 90 deg away from its bearing),
-    ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|).
-    """
-
-    code: str
-    antenna: str | None = None
-    values: dict[str, Any] = field(default_factory=dict)
 
 
 @dataclass
