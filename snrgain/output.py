@@ -35,35 +35,18 @@ CSV_COLUMNS = [
 
 
 def to_csv(results: Results) -> str:
-    """One row per target, antenna and listened month and hour (the reference has rank 0)."""
+    """One row per target, antenna and listened month and hour (the reference has rank 0): the columns
+    :data:`CSV_COLUMNS` of :meth:`Results.to_dataframe`, dB to 0.001."""
+    df = results.to_dataframe()
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(CSV_COLUMNS)
-    for ti, (t, tr) in enumerate(zip(results.targets, results.target_results)):
-        ranked = [results.reference] + [results.antenna(n) for n in tr.ranking]
-        for rank, a in enumerate(ranked):
-            for mi, month in enumerate(results.months):
-                for hi, hour in enumerate(results.utc_hours):
-                    g = a.snr_gain_db[ti, mi, hi]
-                    if np.isnan(g):
-                        continue  # not listened for this target then
-                    w.writerow(
-                        [
-                            t["name"],
-                            rank,
-                            a.name,
-                            a.family,
-                            month,
-                            f"{hour:g}",
-                            f"{g:.3f}",
-                            f"{a.gain_dbi[ti]:.3f}",
-                            f"{a.rdf_db[ti]:.3f}",
-                            f"{a.front_to_back_db[ti]:.3f}",
-                            f"{a.noise_dbm[mi, hi]:.3f}",
-                            f"{a.margin_db[mi, hi]:.3f}",
-                            f"{a.receiver_snr_loss_db[mi, hi]:.3f}",
-                        ]
-                    )
+    as_text = [
+        "{:.3f}".format if c.endswith(("_db", "_dbi", "_dbm")) else "{:g}".format if c == "utc_hour" else str
+        for c in CSV_COLUMNS
+    ]
+    for row in df[CSV_COLUMNS].itertuples(index=False):
+        w.writerow([f(v) for f, v in zip(as_text, row)])
     return buf.getvalue()
 
 

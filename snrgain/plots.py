@@ -11,7 +11,7 @@ functions serve the command line and the report.
 - :func:`azimuth_pattern`: polar gain at the target's elevation, targets and local sources marked;
 - :func:`elevation_pattern`: gain against elevation toward the target's bearing;
 - :func:`noise_sky`: brightness over azimuth and elevation, per component and total;
-- :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles;
+- :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles (from the labelled results);
 - :func:`ranking_chart`: SNR gain bars with RDF and external-noise margin beside them;
 - :func:`site_plan`: the lot and the antennas drawn to scale (when the scenario gives them);
 - :func:`located_sources`: the directions ``snrgain locate`` fitted.
@@ -280,49 +280,45 @@ def _with_gaps(hours, values):
     return np.array(out_h), np.array(out_v)
 
 
-def _mean_over_months(x):
-    """Mean over the first axis of the finite values; NaN where there are none (no warning)."""
-    x = np.asarray(x, dtype=float)
-    n = np.isfinite(x).sum(axis=0)
-    total = np.where(np.isfinite(x), x, 0.0).sum(axis=0)
-    return np.where(n > 0, total / np.maximum(n, 1), np.nan)
-
-
 def snr_over_hours(results, *, ax=None):
     """SNR gain over the reference against UTC hour, one panel per target (mean over its months), with the band of
     atmospheric noise at its P.372 deciles; gaps where the target is not listened for.
 
-    ``ax``: a sequence of one Axes per target.
+    The numbers are read from the labelled results (:meth:`Results.to_xarray`: ``snr_gain_db`` and
+    ``snr_gain_atmospheric_deciles_db`` by antenna, target, month and UTC hour); ``results`` may be that Dataset
+    itself.  ``ax``: a sequence of one Axes per target.
     """
     own = ax is None
-    nt = len(results.targets)
+    ds = results.to_xarray() if hasattr(results, "to_xarray") else results
+    nt = ds.sizes["target"]
     fig, axes = _axes(ax, n=nt, figsize=(8.5, 3.2 * nt + 1.0), sharex=True)
-    hours = np.asarray(results.utc_hours, dtype=float)
+    hours = ds["utc_hour"].values
     atm = False
-    colors = _colors(len(results.candidates))
-    for i, (t, axi) in enumerate(zip(results.targets, axes)):
-        for a, col in zip(results.candidates, colors):
-            if not np.any(np.isfinite(a.snr_gain_db[i])):
+    candidates = [k for k, ref in enumerate(ds["is_reference"].values) if not ref]
+    colors = _colors(len(candidates))
+    for i, axi in enumerate(axes):
+        for k, col in zip(candidates, colors):
+            gain = ds["snr_gain_db"].isel(antenna=k, target=i)
+            if not np.any(np.isfinite(gain.values)):
                 continue
-            mean = _mean_over_months(a.snr_gain_db[i])
-            h, v = _with_gaps(hours, mean)
-            axi.plot(h, v, marker="o", ms=4, color=col, label=a.name)
-            if a.snr_gain_atmospheric_deciles_db is not None:
+            h, v = _with_gaps(hours, gain.mean("month").values)
+            axi.plot(h, v, marker="o", ms=4, color=col, label=str(ds["antenna"].values[k]))
+            band = ds["snr_gain_atmospheric_deciles_db"].isel(antenna=k, target=i).mean("month")
+            if np.any(np.isfinite(band.values)):
                 atm = True
-                hi, lo = (_mean_over_months(d[i]) for d in a.snr_gain_atmospheric_deciles_db)
-                h1, v_hi = _with_gaps(hours, hi)
-                _, v_lo = _with_gaps(hours, lo)
+                h1, v_hi = _with_gaps(hours, band.sel(atmospheric_decile="upper").values)
+                _, v_lo = _with_gaps(hours, band.sel(atmospheric_decile="lower").values)
                 axi.fill_between(h1, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=col, alpha=0.15)
-        axi.axhline(0.0, **REFERENCE_STYLE, label=f"{results.reference.name} (reference)")
+        axi.axhline(0.0, **REFERENCE_STYLE, label=f"{ds.attrs['reference']} (reference)")
         axi.set_ylabel("SNR gain (dB)")
-        axi.set_title(f"toward {t['name']}", fontsize=10, loc="left")
+        axi.set_title(f"toward {ds['target'].values[i]}", fontsize=10, loc="left")
         axi.grid(alpha=0.3)
     axes[0].legend(fontsize=8, ncols=2)
     axes[-1].set_xlabel("UTC hour")
     axes[-1].set_xticks(np.arange(0, 25, 2))
     axes[-1].set_xlim(-0.5, 24)
     band = "; bands: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
-    title = f"SNR gain over the reference through the hours, {results.freq_hz / 1e6:g} MHz{band}"
+    title = f"SNR gain over the reference through the hours, {ds.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
         fig.suptitle(title, fontsize=10)
         fig.tight_layout()
