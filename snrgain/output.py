@@ -224,9 +224,8 @@ def also_build(r: Results, k: int) -> str:
     p = r.plan
     name = p.antennas[k]
     ant = next((a for a in r.candidates if a.name == name), None)
-    if ant is None or ant.family != "combination":
-        return ""
-    needs = [x for x in ant.parameters.get("antennas", []) if x != r.reference.name and x not in p.antennas[:k]]
+    parts = [] if ant is None else ant.parameters.get("antennas") or []  # only a combination holds antennas
+    needs = [x for x in parts if x != r.reference.name and x not in p.antennas[:k]]
     return f" (build {' and '.join(needs)} for it)" if needs else ""
 
 
@@ -245,16 +244,8 @@ def plan_text(r: Results):
         f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone "
         "(weighted mean over targets of the best antenna's SNR gain at each hour)\n"
     )
-    by_name = {a.name: a for a in r.candidates}
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
-        parts = by_name[name].parameters.get("antennas") if name in by_name else None
-        needs = [x for x in parts or [] if x != r.reference.name and x not in p.antennas[:k]]
-        also = (
-            f" (build {' and '.join(needs)} for it)"
-            if by_name.get(name) and by_name[name].family == "combination" and needs
-            else ""
-        )
-        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also}\n")
+        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also_build(r, k)}\n")
     for t, rows in sorted(p.by_target.items()):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
@@ -262,14 +253,17 @@ def plan_text(r: Results):
 
 
 def build_lines(r: Results) -> list[tuple[str, str]]:
-    """(candidate, what to build) in words, one per candidate."""
+    """(candidate, what to build) in words, one per candidate, from what each build sheet contains."""
+    from snrgain.antennas import FAMILIES
+
     out = []
     for a in r.candidates:
         b = a.build
         bits = []
-        if "length_m" in b and b["family"] != "terminated-loop":
+        loop = "loop_height_m" in b  # a loop is given by its shape, width and height, not a length
+        if "length_m" in b and not loop:
             bits.append(f"{b['length_m']:.1f} m ({b['length_ft']:.0f} ft)")
-        if b["family"] == "bog":
+        if "depth_m" in b:  # a wire on the ground, laid on it or buried
             bits.append(
                 "insulated wire laid on the ground"
                 if not b.get("depth_m")
@@ -279,7 +273,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"height {b['height_m']:.2f} m ({b['height_m'] * FT_PER_M:.1f} ft)")
         if "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
-        if b["family"] == "terminated-loop":
+        if loop:
             bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
         if "termination_ohm" in b:
             far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
@@ -309,7 +303,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                     f"{m:.2f} at {lag:.0f} deg" for m, lag in zip(b["current_magnitudes"], b["current_lags_deg"])
                 )
                 bits.append(f"element currents (lag) {cur}")
-        if b["family"] == "combination" and b.get("setting"):
+        if b.get("setting"):  # two antennas through a phase and amplitude unit
             st = b["setting"]
             first, second = b["antennas"]
             bits.append(
@@ -318,14 +312,16 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             )
             if "loss_with_error_db" in st:
                 bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
-        if b["family"] == "vertical":
+        if "ground_loss_ohm" in b:
             bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
-        if not bits:
-            bits.append(
-                "a yardstick, not an antenna to build"
-                if b["family"] == "isotropic"
-                else "a pattern table: build it as its source describes"
-            )
+        if not bits:  # nothing to cut or solder: a yardstick, or an antenna its source describes (the family says)
+            family = FAMILIES.get(b.get("family", a.family))
+            if family is not None and not family.build.buildable:
+                bits.append("a yardstick, not an antenna to build")
+            else:
+                bits.append(
+                    f"{family.summary if family else 'no dimensions to give'}: build it as its source describes"
+                )
         out.append((a.name, "; ".join(bits)))
     return out
 
