@@ -201,6 +201,7 @@ def to_xarray(results: Results) -> xr.Dataset:
             "bandwidth_hz": float(r.bandwidth_hz),
             "reference": r.reference.name,
             "beat_by_db": float(r.beat_by_db),
+            "margin_target_db": float(r.receiver.get("margin_target_db", np.nan)),
             "nside": int(r.nside),
             "scenario": str(r.source),
         },

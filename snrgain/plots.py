@@ -26,6 +26,8 @@ import numpy as np
 from matplotlib import colormaps
 from matplotlib.figure import Figure
 
+from snrgain.labelled import QUANTILES
+
 REFERENCE_STYLE = {"color": "0.35", "ls": "--", "lw": 1.6}
 FLOOR_SPAN_DB = 40.0
 """Polar plots show this many dB below the strongest trace."""
@@ -328,39 +330,40 @@ def snr_over_hours(results, *, ax=None):
 def ranking_chart(results, *, ax=None):
     """Per target, each candidate's median SNR gain with its 10-90 % band; RDF per target; the worst-hour margin.
 
-    ``ax``: a sequence of three Axes (SNR gain, RDF, margin).
+    The numbers are read from the labelled results (:meth:`Results.to_xarray`: ``snr_gain_quantile_db``,
+    ``rdf_db``, ``best``, ``margin_db``); ``results`` may be that Dataset itself.  ``ax``: a sequence of three Axes
+    (SNR gain, RDF, margin).
     """
     own = ax is None
-    cands = list(results.candidates)[::-1]
-    names = [c.name for c in cands]
-    targets = results.targets
+    ds = results.to_xarray() if hasattr(results, "to_xarray") else results
+    cands = ds.isel(antenna=np.flatnonzero(~ds["is_reference"].values)[::-1])  # the first candidate at the top
+    names = [str(n) for n in cands["antenna"].values]
+    quantiles = cands["snr_gain_quantile_db"]
+    targets = [str(t) for t in ds["target"].values]
     nt = len(targets)
-    y = np.arange(len(cands))
+    y = np.arange(len(names))
     h = 0.8 / nt
     fig, axes = _axes(
         ax,
         n=3,
         columns=True,
-        figsize=(12, 0.6 * len(cands) * max(1, nt / 1.5) + 2.0),
+        figsize=(12, 0.6 * len(names) * max(1, nt / 1.5) + 2.0),
         sharey=True,
         width_ratios=[2, 1.2, 1],
     )
     tcol = _colors(nt)
     for ti, t in enumerate(targets):
         off = (ti - (nt - 1) / 2) * h
-        med = np.array([c.snr_gain_median_db[ti] for c in cands])
-        lo = np.array([c.snr_gain_p10_db[ti] for c in cands])
-        hi = np.array([c.snr_gain_p90_db[ti] for c in cands])
-        axes[0].barh(y + off, med, height=h, color=tcol[ti], label=t["name"], alpha=0.85)
+        lo, med, hi = (quantiles.isel(target=ti).sel(quantile=q).values for q in QUANTILES)
+        axes[0].barh(y + off, med, height=h, color=tcol[ti], label=t, alpha=0.85)
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
-        axes[1].barh(y + off, [c.rdf_db[ti] for c in cands], height=h, color=tcol[ti])
+        axes[1].barh(y + off, cands["rdf_db"].isel(target=ti).values, height=h, color=tcol[ti])
         for yi, v, top in zip(y + off, med, hi):
             axes[0].text(max(top, 0), yi, f"  {v:+.1f}", va="center", fontsize=7)
-        best = results.target_results[ti].best
-        yb = y[names.index(best)] + off
+        k = names.index(str(ds["best"].values[ti]))
         axes[0].plot(
-            [results.antenna(best).snr_gain_median_db[ti]],
-            [yb],
+            [med[k]],
+            [y[k] + off],
             marker="*",
             color="gold",
             ms=12,
@@ -376,8 +379,8 @@ def ranking_chart(results, *, ax=None):
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
     axes[1].set_title("RDF per target", fontsize=10)
-    target = results.receiver["margin_target_db"]
-    margin = [float(np.min(c.margin_db)) for c in cands]
+    target = ds.attrs["margin_target_db"]
+    margin = cands["margin_db"].min(("month", "utc_hour")).values
     axes[2].barh(y, margin, height=0.6, color=["darkorange" if m < target else "slategray" for m in margin])
     axes[2].axvline(target, color="crimson", ls=":", label=f"target {target:g} dB")
     for yi, v in zip(y, margin):
@@ -387,7 +390,8 @@ def ranking_chart(results, *, ax=None):
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
-    title = f"Ranking at {results.site['name']}, {results.freq_hz / 1e6:g} MHz (reference: {results.reference.name})"
+    at = ds.attrs
+    title = f"Ranking at {at['site']}, {at['frequency_hz'] / 1e6:g} MHz (reference: {at['reference']})"
     if own:
         fig.suptitle(title, fontsize=11)
         fig.tight_layout()

@@ -193,7 +193,7 @@ class Results:
           per month and hour; ``daytime`` [-].
 
         Dataset attributes: ``site``, ``latitude_deg``, ``longitude_deg``, ``frequency_hz``, ``bandwidth_hz``,
-        ``reference``, ``beat_by_db``, ``nside``, ``scenario``.  Select by label, e.g.
+        ``reference``, ``beat_by_db``, ``margin_target_db``, ``nside``, ``scenario``.  Select by label, e.g.
         ``ds.snr_gain_db.sel(antenna="four-square west", target="East Asia")``.  Needs xarray (a dependency).
         """
         from snrgain.labelled import to_xarray

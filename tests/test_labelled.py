@@ -200,3 +200,28 @@ def test_import_snrgain_loads_neither_xarray_nor_pandas():
     code = "import sys, snrgain; print('xarray' in sys.modules, 'pandas' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=REPO, check=True).stdout
     assert out.split() == ["False", "False"]
+
+
+def test_every_ranking_number_of_the_json_is_in_the_dataset(fen):
+    # The JSON's per-target rankings and the Dataset are two views of the same numbers: none may disagree.
+    doc = json.loads(output.to_json(fen))
+    ds = fen.to_xarray()
+    keys = {
+        "rdf_db": "rdf_db",
+        "front_to_back_db": "front_to_back_db",
+        "gain_toward_target_dbi": "gain_toward_target_dbi",
+        "probability_beats_reference": "probability_beats_reference",
+    }
+    checked = 0
+    for t in doc["targets"]:
+        for rank, row in enumerate(t["ranking"], start=1):
+            at = {"antenna": row["name"], "target": t["name"]}
+            assert int(ds["rank_for_target"].sel(at)) == rank
+            for lab, q in (("p10", 0.1), ("median", 0.5), ("p90", 0.9)):
+                assert float(ds["snr_gain_quantile_db"].sel(at).sel(quantile=q)) == row["snr_gain_db"][lab]
+            assert float(ds["snr_gain_nominal_db"].sel(at)) == row["snr_gain_db"]["nominal"]
+            for key, var in keys.items():
+                value = float(ds[var].sel(at))
+                assert (not np.isfinite(value)) if row[key] is None else value == row[key]  # null: not finite
+                checked += 1
+    assert checked == 4 * len(doc["targets"]) * len(fen.candidates)
