@@ -59,10 +59,10 @@ def _f(x, fmt="{:+.1f}"):
     return fmt.format(x)
 
 
-def _preamp_cell(a) -> str:
-    if not a.receiver_limited:
+def _preamp_cell(limited: bool, gain_db) -> str:
+    if not limited:
         return "-"
-    g = a.preamp_gain_needed_db
+    g = np.asarray(gain_db, dtype=float)
     return "none" if np.any(np.isnan(g)) else f"{float(np.max(g)):.0f}"
 
 
@@ -142,13 +142,18 @@ def spread_note(r: Results) -> str:
     return "spread over " + (", ".join(parts) if parts else "nothing (every spread is off)")
 
 
-def target_table(r: Results, i: int):
+def target_table(r: Results, i: int, ds=None):
     """One target's ranking: median SNR gain with its 10-90 % band, the chance of beating the reference, RDF,
-    front-to-back, and each antenna's noise against the receiver."""
+    front-to-back, and each antenna's noise against the receiver.
+
+    The numbers are read from the labelled results ``ds`` (:meth:`Results.to_xarray`, made here if not given).
+    """
     from rich.table import Table
     from rich.text import Text
 
-    t, tr = r.targets[i], r.target_results[i]
+    ds = r.to_xarray() if ds is None else ds
+    at = ds.isel(target=i)
+    t = r.targets[i]
     where = f"{t['bearing_deg']:.0f} deg, {t['elevation_min_deg']:.0f}-{t['elevation_max_deg']:.0f} deg elevation"
     if t.get("distance_km"):
         where += f", {t['distance_km']:.0f} km"
@@ -156,14 +161,14 @@ def target_table(r: Results, i: int):
     table = Table(
         title=Text(f"{t['name']}: {where}; {when}", style="bold"),
         title_justify="left",
-        caption=f"SNR gain over {r.reference.name}; {spread_note(r)}",
+        caption=f"SNR gain over {ds.attrs['reference']}; {spread_note(r)}",
         caption_justify="left",
     )
     table.add_column("#", justify="right", no_wrap=True)
     table.add_column("antenna", no_wrap=True, max_width=32)
     for label in (
         "SNR gain dB\nmedian (10-90 %)",
-        f"P(>={r.beat_by_db:g}\ndB)",
+        f"P(>={ds.attrs['beat_by_db']:g}\ndB)",
         "RDF\ndB",
         "F/B\ndB",
         "noise dBm\n(S-meter)",
@@ -172,46 +177,45 @@ def target_table(r: Results, i: int):
     ):
         table.add_column(label, justify="right", no_wrap=True)
 
-    def row(rank, a, style=None):
-        noise = float(np.median(a.noise_dbm))
-        margin = float(np.min(a.margin_db))
-        limited = a.receiver_limited
-        if a is r.reference:
-            gain, prob = "0 (reference)", "-"
+    names = [str(n) for n in at["antenna"].values]
+    spread = at["snr_gain_quantile_db"].transpose("antenna", "quantile").values  # 10 %, median, 90 % [dB]
+    for k in np.argsort(at["rank_for_target"].values, kind="stable"):  # the reference (rank 0), then the ranking
+        a = at.isel(antenna=k)
+        noise = float(np.median(a["noise_dbm"].values))
+        margin = float(np.min(a["margin_db"].values))
+        limited = bool(a["receiver_limited"])
+        if bool(a["is_reference"]):
+            rank, gain, prob, style = "ref", "0 (reference)", "-", "dim"
         else:
-            gain = f"{_f(a.snr_gain_median_db[i])} ({_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])})"
-            prob = f"{100 * a.probability_beats[i]:.0f} %"
+            p10, med, p90 = spread[k]
+            rank, gain, style = str(int(a["rank_for_target"])), f"{_f(med)} ({_f(p10)} to {_f(p90)})", None
+            prob = f"{100 * float(a['probability_beats_reference']):.0f} %"
         table.add_row(
             rank,
-            Text(a.name),
+            Text(names[k]),
             gain,
             prob,
-            _f(a.rdf_db[i]),
-            _f(np.clip(a.front_to_back_db[i], -99, 99)),
+            _f(a["rdf_db"]),
+            _f(np.clip(float(a["front_to_back_db"]), -99, 99)),
             f"{noise:.1f} ({s_units(noise)})",
             Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
-            _preamp_cell(a),
+            _preamp_cell(limited, a["preamp_gain_needed_db"].values),
             style=style,
         )
-
-    row("ref", r.reference, style="dim")
-    for k, name in enumerate(tr.ranking):
-        row(str(k + 1), r.antenna(name))
-    best = r.antenna(tr.best)
+    best, runner_up = str(at["best"].values), str(at["runner_up"].values)
+    p10, med, p90 = spread[names.index(best)]
+    reference = ds.attrs["reference"]
     verdict = Text()
-    if best.snr_gain_median_db[i] > 0:
+    if med > 0:
         verdict.append(f"Best toward {t['name']}: ", style="bold")
-        verdict.append(f"{tr.best}", style="bold green")
+        verdict.append(f"{best}", style="bold green")
         verdict.append(
-            f", {best.snr_gain_median_db[i]:+.1f} dB over {r.reference.name} (median; "
-            f"{best.snr_gain_p10_db[i]:+.1f} to {best.snr_gain_p90_db[i]:+.1f} dB), "
-            f"{tr.margin_db:.1f} dB ahead of {tr.runner_up}."
+            f", {med:+.1f} dB over {reference} (median; {p10:+.1f} to {p90:+.1f} dB), "
+            f"{float(at['best_margin_db']):.1f} dB ahead of {runner_up}."
         )
     else:
         verdict.append(
-            f"Toward {t['name']} no candidate beats {r.reference.name} (best: {tr.best}, "
-            f"{best.snr_gain_median_db[i]:+.1f} dB).",
-            style="bold",
+            f"Toward {t['name']} no candidate beats {reference} (best: {best}, {med:+.1f} dB).", style="bold"
         )
     from rich.console import Group
 
@@ -347,7 +351,8 @@ def ranking_table(results: Results, *, build: bool = False):
 
     r = results
     parts = [_header(r)]
-    parts += [target_table(r, i) for i in range(len(r.targets))]
+    ds = r.to_xarray()
+    parts += [target_table(r, i, ds) for i in range(len(r.targets))]
     parts.append(plan_text(r))
     if build:
         parts.append(build_text(r))
