@@ -118,8 +118,9 @@ def to_xarray(results: Results) -> xr.Dataset:
     def stack(attr):
         return np.stack([np.asarray(getattr(a, attr), dtype=float) for a in ants])
 
+    ranked = r.target_results if len(r.target_results) == len(tnames) else []  # none yet: before the decisions
     ranks = np.zeros((len(ants), len(tnames)), dtype=int)
-    for ti, tr in enumerate(r.target_results):
+    for ti, tr in enumerate(ranked):
         for k, name in enumerate(tr.ranking):
             ranks[names.index(name), ti] = k + 1
     nan_atm = np.full((2, len(tnames), len(r.months), len(r.utc_hours)), np.nan)
@@ -161,7 +162,7 @@ def to_xarray(results: Results) -> xr.Dataset:
         "margin_db": (("antenna", *mh), stack("margin_db")),
         "receiver_snr_loss_db": (("antenna", *mh), stack("receiver_snr_loss_db")),
         "preamp_gain_needed_db": (("antenna", *mh), stack("preamp_gain_needed_db")),
-        "best_margin_db": (("target",), np.array([tr.margin_db for tr in r.target_results], dtype=float)),
+        "best_margin_db": (("target",), np.array([tr.margin_db for tr in ranked] or [np.nan] * len(tnames))),
         "fa_db": (("component", *mh), np.asarray(n.fa_db, dtype=float)),
         "upper_decile_db": (("component", *mh), np.asarray(n.du_db, dtype=float)),
         "lower_decile_db": (("component", *mh), np.asarray(n.dl_db, dtype=float)),
@@ -181,8 +182,8 @@ def to_xarray(results: Results) -> xr.Dataset:
         "bearing_deg": ("target", [float(t["bearing_deg"]) for t in r.targets], {"units": "deg"}),
         "elevation_min_deg": ("target", [float(t["elevation_min_deg"]) for t in r.targets], {"units": "deg"}),
         "elevation_max_deg": ("target", [float(t["elevation_max_deg"]) for t in r.targets], {"units": "deg"}),
-        "best": ("target", [tr.best for tr in r.target_results], {"units": "-"}),
-        "runner_up": ("target", [tr.runner_up for tr in r.target_results], {"units": "-"}),
+        "best": ("target", [tr.best for tr in ranked] or [""] * len(tnames), {"units": "-"}),
+        "runner_up": ("target", [tr.runner_up for tr in ranked] or [""] * len(tnames), {"units": "-"}),
         "month": ("month", np.asarray(r.months, dtype=int), {"units": "-", "description": "month of the year, 1-12"}),
         "utc_hour": ("utc_hour", np.asarray(r.utc_hours, dtype=float), {"units": "h", "description": "UTC hour"}),
         "quantile": ("quantile", np.asarray(QUANTILES), {"units": "-"}),

@@ -225,3 +225,13 @@ def test_every_ranking_number_of_the_json_is_in_the_dataset(fen):
                 assert (not np.isfinite(value)) if row[key] is None else value == row[key]  # null: not finite
                 checked += 1
     assert checked == 4 * len(doc["targets"]) * len(fen.candidates)
+
+
+def test_results_not_yet_ranked_still_label(two):
+    # Results built before the per-target decisions (no target_results) give ranks 0 and no best, not an error.
+    from dataclasses import replace
+
+    ds = replace(two, target_results=[]).to_xarray()
+    assert (ds["rank_for_target"].values == 0).all()
+    assert list(ds["best"].values) == ["", ""] and np.isnan(ds["best_margin_db"].values).all()
+    np.testing.assert_array_equal(ds["snr_gain_db"].values[1], two.candidates[0].snr_gain_db)
