@@ -24,7 +24,7 @@ _LAZY = {
     "ScenarioError": "snrgain.scenario",
     "Results": "snrgain.results",
     "AntennaResult": "snrgain.results",
-    "Notice": "snrgain.results",
+    "Notice": "snrgain.notices",
     "SkySeries": "snrgain.noise",
 }
 

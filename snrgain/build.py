@@ -96,7 +96,7 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
     for key in ("feed", "line_impedance_ohm", "feed_impedances_ohm", "current_magnitudes", "current_lags_deg"):
         if key in d:
             out[key] = d[key]
-    if antenna.family == "combination":
+    if antenna.composite:
         out.update(antennas=d.get("antennas"), setting=d.get("setting"))
     elif hasattr(antenna, "effective_delays_s"):
         name = cable or DEFAULT_PHASING_CABLE

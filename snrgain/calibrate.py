@@ -30,7 +30,7 @@ from scipy.optimize import least_squares
 
 from snrgain import lines
 from snrgain.antennas.base import variant
-from snrgain.constants import FREQ_RANGE_HZ, WIRE_FAMILIES
+from snrgain.constants import FREQ_RANGE_HZ, wire_families
 from snrgain.ground import C_M_PER_S, Ground
 from snrgain.readings import read_toml
 
@@ -337,13 +337,13 @@ def load_readings(path: str | Path) -> WireReadings:
     path = Path(path)
     f = validate(ReadingsFile, read_toml(path), path)
     spec = {"family": "bog", **f.wire}
-    if spec.get("family") not in WIRE_FAMILIES:
+    if spec.get("family") not in wire_families():
         raise ReadingsError(
             str(path),
             [
                 (
                     "wire.family",
-                    f"calibration needs a long-wire family ({', '.join(WIRE_FAMILIES)}); got {spec.get('family')!r}",
+                    f"calibration needs a long-wire family ({', '.join(wire_families())}); got {spec.get('family')!r}",
                 )
             ],
         )
@@ -445,7 +445,7 @@ def calibrate(
         term = max(z0 - ant.far_rod_ohm, 0.0)
         turns = float(np.sqrt((z0 + ant.feed_rod_ohm) / ant.params.coax))
     height = None
-    if ant.family == "bog" and not ant.params.depth > 0:
+    if "depth" in type(ant.params).model_fields and not ant.params.depth > 0:  # a wire on the soil, not buried
         height = fit_bog_height(ant, measured, [(ln.freq_hz, abs(ln.z0)) for ln in constants])
     return Calibration(ant, constants, resonances, fit, term, turns, height)
 
@@ -477,7 +477,7 @@ def with_measured_line(text: str, name: str, line: lines.LineConstants) -> str:
     table = next((c for c in tomllib.loads(text).get("candidate", []) if c.get("name") == name), None)
     if table is None:
         raise ValueError(f"--into: the scenario has no candidate named {name!r}")
-    if table.get("family") not in WIRE_FAMILIES:
+    if table.get("family") not in wire_families():
         raise ValueError(f"--into: candidate {name!r} is not a long wire; measured line constants fit only wires")
     add = [
         f"velocity_factor = {line.velocity_factor:.4f}   # measured by snrgain calibrate at "

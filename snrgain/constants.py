@@ -14,8 +14,28 @@ FREQ_RANGE_HZ = (0.1e6, 30e6)
 MAN_MADE_CHOICES: tuple[str, ...] = (*MAN_MADE_CATEGORIES, "none")
 """Man-made noise environments: the ITU-R P.372 Table 1 categories, or none."""
 
-WIRE_FAMILIES: tuple[str, ...] = ("beverage", "bog", "unterminated", "two-wire")
-"""The long-wire families (transmission-line model) the wire design report and calibration cover."""
+
+def wire_families() -> tuple[str, ...]:
+    """The long-wire families (transmission-line model) the wire design report and calibration cover: those whose
+    class declares ``long_wire`` (snrgain.antennas.base), in the registry's order."""
+    from snrgain.antennas import FAMILIES
+
+    return tuple(name for name, fam in FAMILIES.items() if fam.build.long_wire)
+
+
+def placeable_families() -> tuple[str, ...]:
+    """The families ``snrgain layout`` can move (their class declares ``placeable``), in the registry's order."""
+    from snrgain.antennas import FAMILIES
+
+    return tuple(name for name, fam in FAMILIES.items() if fam.build.placeable)
+
+
+def __getattr__(name: str):
+    # WIRE_FAMILIES is read from the antenna registry when first asked for, so that importing this module (the
+    # command line does, at start) does not import the antennas.
+    if name == "WIRE_FAMILIES":
+        return wire_families()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def check_frequency_hz(freq_hz: float, what: str = "frequency") -> float:

@@ -30,9 +30,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from snrgain.constants import WIRE_FAMILIES
 from snrgain.ground import C_M_PER_S
-from snrgain.results import Notice
+from snrgain.notices import Notice
 
 OFF_LOT_TOLERANCE_M = 0.1
 """Beyond the lot by less than this [m] is on it (positions written to 0.1 m)."""
@@ -61,7 +60,7 @@ def footprint(antenna):
     """The antenna's shape on the plan (shapely), or None where it has no position."""
     from shapely.geometry import LineString, MultiPoint, Point
 
-    if antenna.family == "combination":
+    if antenna.composite:  # made of other antennas of the scenario, drawn where they stand
         return None
     pos = getattr(antenna, "positions", None)
     if pos is not None and len(pos) > 1:
@@ -69,7 +68,7 @@ def footprint(antenna):
     p = antenna.params.position
     if p is None:
         return None if pos is None or not len(pos) else Point(*np.asarray(pos, dtype=float)[0])
-    if antenna.family in WIRE_FAMILIES:
+    if antenna.long_wire:
         b = antenna.bearing_rad
         end = (p[0] + antenna.length_m * np.sin(b), p[1] + antenna.length_m * np.cos(b))
         return LineString([tuple(p), end])
@@ -110,7 +109,7 @@ def site_notices(sc) -> list[Notice]:
     ref = sc.reference
     # Where the TX vertical stands: its position, or the plan's origin when the site has a lot; with neither there
     # is no plan to place it on (element positions of an array may then be relative), so nothing is said.
-    if ref.family == "vertical" and (ref.params.position is not None or site.lot_m is not None):
+    if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
         tx = Point(*(ref.params.position or (0.0, 0.0)))
         clear = tx_clearance_m(site, sc.freq_hz)
         for ant, shape in shapes:

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from snrgain.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
-from snrgain.results import Notice
+from snrgain.notices import Notice
 
 
 def notice_text(n: Notice) -> str:

@@ -35,35 +35,18 @@ CSV_COLUMNS = [
 
 
 def to_csv(results: Results) -> str:
-    """One row per target, antenna and listened month and hour (the reference has rank 0)."""
+    """One row per target, antenna and listened month and hour (the reference has rank 0): the columns
+    :data:`CSV_COLUMNS` of :meth:`Results.to_dataframe`, dB to 0.001."""
+    df = results.to_dataframe()
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(CSV_COLUMNS)
-    for ti, (t, tr) in enumerate(zip(results.targets, results.target_results)):
-        ranked = [results.reference] + [results.antenna(n) for n in tr.ranking]
-        for rank, a in enumerate(ranked):
-            for mi, month in enumerate(results.months):
-                for hi, hour in enumerate(results.utc_hours):
-                    g = a.snr_gain_db[ti, mi, hi]
-                    if np.isnan(g):
-                        continue  # not listened for this target then
-                    w.writerow(
-                        [
-                            t["name"],
-                            rank,
-                            a.name,
-                            a.family,
-                            month,
-                            f"{hour:g}",
-                            f"{g:.3f}",
-                            f"{a.gain_dbi[ti]:.3f}",
-                            f"{a.rdf_db[ti]:.3f}",
-                            f"{a.front_to_back_db[ti]:.3f}",
-                            f"{a.noise_dbm[mi, hi]:.3f}",
-                            f"{a.margin_db[mi, hi]:.3f}",
-                            f"{a.receiver_snr_loss_db[mi, hi]:.3f}",
-                        ]
-                    )
+    as_text = [
+        "{:.3f}".format if c.endswith(("_db", "_dbi", "_dbm")) else "{:g}".format if c == "utc_hour" else str
+        for c in CSV_COLUMNS
+    ]
+    for row in df[CSV_COLUMNS].itertuples(index=False):
+        w.writerow([f(v) for f, v in zip(as_text, row)])
     return buf.getvalue()
 
 
@@ -76,10 +59,10 @@ def _f(x, fmt="{:+.1f}"):
     return fmt.format(x)
 
 
-def _preamp_cell(a) -> str:
-    if not a.receiver_limited:
+def _preamp_cell(limited: bool, gain_db) -> str:
+    if not limited:
         return "-"
-    g = a.preamp_gain_needed_db
+    g = np.asarray(gain_db, dtype=float)
     return "none" if np.any(np.isnan(g)) else f"{float(np.max(g)):.0f}"
 
 
@@ -159,13 +142,18 @@ def spread_note(r: Results) -> str:
     return "spread over " + (", ".join(parts) if parts else "nothing (every spread is off)")
 
 
-def target_table(r: Results, i: int):
+def target_table(r: Results, i: int, ds=None):
     """One target's ranking: median SNR gain with its 10-90 % band, the chance of beating the reference, RDF,
-    front-to-back, and each antenna's noise against the receiver."""
+    front-to-back, and each antenna's noise against the receiver.
+
+    The numbers are read from the labelled results ``ds`` (:meth:`Results.to_xarray`, made here if not given).
+    """
     from rich.table import Table
     from rich.text import Text
 
-    t, tr = r.targets[i], r.target_results[i]
+    ds = r.to_xarray() if ds is None else ds
+    at = ds.isel(target=i)
+    t = r.targets[i]
     where = f"{t['bearing_deg']:.0f} deg, {t['elevation_min_deg']:.0f}-{t['elevation_max_deg']:.0f} deg elevation"
     if t.get("distance_km"):
         where += f", {t['distance_km']:.0f} km"
@@ -173,14 +161,14 @@ def target_table(r: Results, i: int):
     table = Table(
         title=Text(f"{t['name']}: {where}; {when}", style="bold"),
         title_justify="left",
-        caption=f"SNR gain over {r.reference.name}; {spread_note(r)}",
+        caption=f"SNR gain over {ds.attrs['reference']}; {spread_note(r)}",
         caption_justify="left",
     )
     table.add_column("#", justify="right", no_wrap=True)
     table.add_column("antenna", no_wrap=True, max_width=32)
     for label in (
         "SNR gain dB\nmedian (10-90 %)",
-        f"P(>={r.beat_by_db:g}\ndB)",
+        f"P(>={ds.attrs['beat_by_db']:g}\ndB)",
         "RDF\ndB",
         "F/B\ndB",
         "noise dBm\n(S-meter)",
@@ -189,46 +177,45 @@ def target_table(r: Results, i: int):
     ):
         table.add_column(label, justify="right", no_wrap=True)
 
-    def row(rank, a, style=None):
-        noise = float(np.median(a.noise_dbm))
-        margin = float(np.min(a.margin_db))
-        limited = a.receiver_limited
-        if a is r.reference:
-            gain, prob = "0 (reference)", "-"
+    names = [str(n) for n in at["antenna"].values]
+    spread = at["snr_gain_quantile_db"].transpose("antenna", "quantile").values  # 10 %, median, 90 % [dB]
+    for k in np.argsort(at["rank_for_target"].values, kind="stable"):  # the reference (rank 0), then the ranking
+        a = at.isel(antenna=k)
+        noise = float(np.median(a["noise_dbm"].values))
+        margin = float(np.min(a["margin_db"].values))
+        limited = bool(a["receiver_limited"])
+        if bool(a["is_reference"]):
+            rank, gain, prob, style = "ref", "0 (reference)", "-", "dim"
         else:
-            gain = f"{_f(a.snr_gain_median_db[i])} ({_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])})"
-            prob = f"{100 * a.probability_beats[i]:.0f} %"
+            p10, med, p90 = spread[k]
+            rank, gain, style = str(int(a["rank_for_target"])), f"{_f(med)} ({_f(p10)} to {_f(p90)})", None
+            prob = f"{100 * float(a['probability_beats_reference']):.0f} %"
         table.add_row(
             rank,
-            Text(a.name),
+            Text(names[k]),
             gain,
             prob,
-            _f(a.rdf_db[i]),
-            _f(np.clip(a.front_to_back_db[i], -99, 99)),
+            _f(a["rdf_db"]),
+            _f(np.clip(float(a["front_to_back_db"]), -99, 99)),
             f"{noise:.1f} ({s_units(noise)})",
             Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
-            _preamp_cell(a),
+            _preamp_cell(limited, a["preamp_gain_needed_db"].values),
             style=style,
         )
-
-    row("ref", r.reference, style="dim")
-    for k, name in enumerate(tr.ranking):
-        row(str(k + 1), r.antenna(name))
-    best = r.antenna(tr.best)
+    best, runner_up = str(at["best"].values), str(at["runner_up"].values)
+    p10, med, p90 = spread[names.index(best)]
+    reference = ds.attrs["reference"]
     verdict = Text()
-    if best.snr_gain_median_db[i] > 0:
+    if med > 0:
         verdict.append(f"Best toward {t['name']}: ", style="bold")
-        verdict.append(f"{tr.best}", style="bold green")
+        verdict.append(f"{best}", style="bold green")
         verdict.append(
-            f", {best.snr_gain_median_db[i]:+.1f} dB over {r.reference.name} (median; "
-            f"{best.snr_gain_p10_db[i]:+.1f} to {best.snr_gain_p90_db[i]:+.1f} dB), "
-            f"{tr.margin_db:.1f} dB ahead of {tr.runner_up}."
+            f", {med:+.1f} dB over {reference} (median; {p10:+.1f} to {p90:+.1f} dB), "
+            f"{float(at['best_margin_db']):.1f} dB ahead of {runner_up}."
         )
     else:
         verdict.append(
-            f"Toward {t['name']} no candidate beats {r.reference.name} (best: {tr.best}, "
-            f"{best.snr_gain_median_db[i]:+.1f} dB).",
-            style="bold",
+            f"Toward {t['name']} no candidate beats {reference} (best: {best}, {med:+.1f} dB).", style="bold"
         )
     from rich.console import Group
 
@@ -241,9 +228,8 @@ def also_build(r: Results, k: int) -> str:
     p = r.plan
     name = p.antennas[k]
     ant = next((a for a in r.candidates if a.name == name), None)
-    if ant is None or ant.family != "combination":
-        return ""
-    needs = [x for x in ant.parameters.get("antennas", []) if x != r.reference.name and x not in p.antennas[:k]]
+    parts = [] if ant is None else ant.parameters.get("antennas") or []  # only a combination holds antennas
+    needs = [x for x in parts if x != r.reference.name and x not in p.antennas[:k]]
     return f" (build {' and '.join(needs)} for it)" if needs else ""
 
 
@@ -262,16 +248,8 @@ def plan_text(r: Results):
         f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone "
         "(weighted mean over targets of the best antenna's SNR gain at each hour)\n"
     )
-    by_name = {a.name: a for a in r.candidates}
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
-        parts = by_name[name].parameters.get("antennas") if name in by_name else None
-        needs = [x for x in parts or [] if x != r.reference.name and x not in p.antennas[:k]]
-        also = (
-            f" (build {' and '.join(needs)} for it)"
-            if by_name.get(name) and by_name[name].family == "combination" and needs
-            else ""
-        )
-        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also}\n")
+        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also_build(r, k)}\n")
     for t, rows in sorted(p.by_target.items()):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
@@ -279,14 +257,17 @@ def plan_text(r: Results):
 
 
 def build_lines(r: Results) -> list[tuple[str, str]]:
-    """(candidate, what to build) in words, one per candidate."""
+    """(candidate, what to build) in words, one per candidate, from what each build sheet contains."""
+    from snrgain.antennas import FAMILIES
+
     out = []
     for a in r.candidates:
         b = a.build
         bits = []
-        if "length_m" in b and b["family"] != "terminated-loop":
+        loop = "loop_height_m" in b  # a loop is given by its shape, width and height, not a length
+        if "length_m" in b and not loop:
             bits.append(f"{b['length_m']:.1f} m ({b['length_ft']:.0f} ft)")
-        if b["family"] == "bog":
+        if "depth_m" in b:  # a wire on the ground, laid on it or buried
             bits.append(
                 "insulated wire laid on the ground"
                 if not b.get("depth_m")
@@ -296,7 +277,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"height {b['height_m']:.2f} m ({b['height_m'] * FT_PER_M:.1f} ft)")
         if "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
-        if b["family"] == "terminated-loop":
+        if loop:
             bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
         if "termination_ohm" in b:
             far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
@@ -326,7 +307,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                     f"{m:.2f} at {lag:.0f} deg" for m, lag in zip(b["current_magnitudes"], b["current_lags_deg"])
                 )
                 bits.append(f"element currents (lag) {cur}")
-        if b["family"] == "combination" and b.get("setting"):
+        if b.get("setting"):  # two antennas through a phase and amplitude unit
             st = b["setting"]
             first, second = b["antennas"]
             bits.append(
@@ -335,14 +316,16 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             )
             if "loss_with_error_db" in st:
                 bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
-        if b["family"] == "vertical":
+        if "ground_loss_ohm" in b:
             bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
-        if not bits:
-            bits.append(
-                "a yardstick, not an antenna to build"
-                if b["family"] == "isotropic"
-                else "a pattern table: build it as its source describes"
-            )
+        if not bits:  # nothing to cut or solder: a yardstick, or an antenna its source describes (the family says)
+            family = FAMILIES.get(b.get("family", a.family))
+            if family is not None and not family.build.buildable:
+                bits.append("a yardstick, not an antenna to build")
+            else:
+                bits.append(
+                    f"{family.summary if family else 'no dimensions to give'}: build it as its source describes"
+                )
         out.append((a.name, "; ".join(bits)))
     return out
 
@@ -368,7 +351,8 @@ def ranking_table(results: Results, *, build: bool = False):
 
     r = results
     parts = [_header(r)]
-    parts += [target_table(r, i) for i in range(len(r.targets))]
+    ds = r.to_xarray()
+    parts += [target_table(r, i, ds) for i in range(len(r.targets))]
     parts.append(plan_text(r))
     if build:
         parts.append(build_text(r))

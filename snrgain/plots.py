@@ -11,7 +11,7 @@ functions serve the command line and the report.
 - :func:`azimuth_pattern`: polar gain at the target's elevation, targets and local sources marked;
 - :func:`elevation_pattern`: gain against elevation toward the target's bearing;
 - :func:`noise_sky`: brightness over azimuth and elevation, per component and total;
-- :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles;
+- :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles (from the labelled results);
 - :func:`ranking_chart`: SNR gain bars with RDF and external-noise margin beside them;
 - :func:`site_plan`: the lot and the antennas drawn to scale (when the scenario gives them);
 - :func:`located_sources`: the directions ``snrgain locate`` fitted.
@@ -25,6 +25,8 @@ from pathlib import Path
 import numpy as np
 from matplotlib import colormaps
 from matplotlib.figure import Figure
+
+from snrgain.labelled import QUANTILES
 
 REFERENCE_STYLE = {"color": "0.35", "ls": "--", "lw": 1.6}
 FLOOR_SPAN_DB = 40.0
@@ -280,49 +282,45 @@ def _with_gaps(hours, values):
     return np.array(out_h), np.array(out_v)
 
 
-def _mean_over_months(x):
-    """Mean over the first axis of the finite values; NaN where there are none (no warning)."""
-    x = np.asarray(x, dtype=float)
-    n = np.isfinite(x).sum(axis=0)
-    total = np.where(np.isfinite(x), x, 0.0).sum(axis=0)
-    return np.where(n > 0, total / np.maximum(n, 1), np.nan)
-
-
 def snr_over_hours(results, *, ax=None):
     """SNR gain over the reference against UTC hour, one panel per target (mean over its months), with the band of
     atmospheric noise at its P.372 deciles; gaps where the target is not listened for.
 
-    ``ax``: a sequence of one Axes per target.
+    The numbers are read from the labelled results (:meth:`Results.to_xarray`: ``snr_gain_db`` and
+    ``snr_gain_atmospheric_deciles_db`` by antenna, target, month and UTC hour); ``results`` may be that Dataset
+    itself.  ``ax``: a sequence of one Axes per target.
     """
     own = ax is None
-    nt = len(results.targets)
+    ds = results.to_xarray() if hasattr(results, "to_xarray") else results
+    nt = ds.sizes["target"]
     fig, axes = _axes(ax, n=nt, figsize=(8.5, 3.2 * nt + 1.0), sharex=True)
-    hours = np.asarray(results.utc_hours, dtype=float)
+    hours = ds["utc_hour"].values
     atm = False
-    colors = _colors(len(results.candidates))
-    for i, (t, axi) in enumerate(zip(results.targets, axes)):
-        for a, col in zip(results.candidates, colors):
-            if not np.any(np.isfinite(a.snr_gain_db[i])):
+    candidates = [k for k, ref in enumerate(ds["is_reference"].values) if not ref]
+    colors = _colors(len(candidates))
+    for i, axi in enumerate(axes):
+        for k, col in zip(candidates, colors):
+            gain = ds["snr_gain_db"].isel(antenna=k, target=i)
+            if not np.any(np.isfinite(gain.values)):
                 continue
-            mean = _mean_over_months(a.snr_gain_db[i])
-            h, v = _with_gaps(hours, mean)
-            axi.plot(h, v, marker="o", ms=4, color=col, label=a.name)
-            if a.snr_gain_atmospheric_deciles_db is not None:
+            h, v = _with_gaps(hours, gain.mean("month").values)
+            axi.plot(h, v, marker="o", ms=4, color=col, label=str(ds["antenna"].values[k]))
+            band = ds["snr_gain_atmospheric_deciles_db"].isel(antenna=k, target=i).mean("month")
+            if np.any(np.isfinite(band.values)):
                 atm = True
-                hi, lo = (_mean_over_months(d[i]) for d in a.snr_gain_atmospheric_deciles_db)
-                h1, v_hi = _with_gaps(hours, hi)
-                _, v_lo = _with_gaps(hours, lo)
+                h1, v_hi = _with_gaps(hours, band.sel(atmospheric_decile="upper").values)
+                _, v_lo = _with_gaps(hours, band.sel(atmospheric_decile="lower").values)
                 axi.fill_between(h1, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=col, alpha=0.15)
-        axi.axhline(0.0, **REFERENCE_STYLE, label=f"{results.reference.name} (reference)")
+        axi.axhline(0.0, **REFERENCE_STYLE, label=f"{ds.attrs['reference']} (reference)")
         axi.set_ylabel("SNR gain (dB)")
-        axi.set_title(f"toward {t['name']}", fontsize=10, loc="left")
+        axi.set_title(f"toward {ds['target'].values[i]}", fontsize=10, loc="left")
         axi.grid(alpha=0.3)
     axes[0].legend(fontsize=8, ncols=2)
     axes[-1].set_xlabel("UTC hour")
     axes[-1].set_xticks(np.arange(0, 25, 2))
     axes[-1].set_xlim(-0.5, 24)
     band = "; bands: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
-    title = f"SNR gain over the reference through the hours, {results.freq_hz / 1e6:g} MHz{band}"
+    title = f"SNR gain over the reference through the hours, {ds.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
         fig.suptitle(title, fontsize=10)
         fig.tight_layout()
@@ -332,39 +330,40 @@ def snr_over_hours(results, *, ax=None):
 def ranking_chart(results, *, ax=None):
     """Per target, each candidate's median SNR gain with its 10-90 % band; RDF per target; the worst-hour margin.
 
-    ``ax``: a sequence of three Axes (SNR gain, RDF, margin).
+    The numbers are read from the labelled results (:meth:`Results.to_xarray`: ``snr_gain_quantile_db``,
+    ``rdf_db``, ``best``, ``margin_db``); ``results`` may be that Dataset itself.  ``ax``: a sequence of three Axes
+    (SNR gain, RDF, margin).
     """
     own = ax is None
-    cands = list(results.candidates)[::-1]
-    names = [c.name for c in cands]
-    targets = results.targets
+    ds = results.to_xarray() if hasattr(results, "to_xarray") else results
+    cands = ds.isel(antenna=np.flatnonzero(~ds["is_reference"].values)[::-1])  # the first candidate at the top
+    names = [str(n) for n in cands["antenna"].values]
+    quantiles = cands["snr_gain_quantile_db"]
+    targets = [str(t) for t in ds["target"].values]
     nt = len(targets)
-    y = np.arange(len(cands))
+    y = np.arange(len(names))
     h = 0.8 / nt
     fig, axes = _axes(
         ax,
         n=3,
         columns=True,
-        figsize=(12, 0.6 * len(cands) * max(1, nt / 1.5) + 2.0),
+        figsize=(12, 0.6 * len(names) * max(1, nt / 1.5) + 2.0),
         sharey=True,
         width_ratios=[2, 1.2, 1],
     )
     tcol = _colors(nt)
     for ti, t in enumerate(targets):
         off = (ti - (nt - 1) / 2) * h
-        med = np.array([c.snr_gain_median_db[ti] for c in cands])
-        lo = np.array([c.snr_gain_p10_db[ti] for c in cands])
-        hi = np.array([c.snr_gain_p90_db[ti] for c in cands])
-        axes[0].barh(y + off, med, height=h, color=tcol[ti], label=t["name"], alpha=0.85)
+        lo, med, hi = (quantiles.isel(target=ti).sel(quantile=q).values for q in QUANTILES)
+        axes[0].barh(y + off, med, height=h, color=tcol[ti], label=t, alpha=0.85)
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
-        axes[1].barh(y + off, [c.rdf_db[ti] for c in cands], height=h, color=tcol[ti])
+        axes[1].barh(y + off, cands["rdf_db"].isel(target=ti).values, height=h, color=tcol[ti])
         for yi, v, top in zip(y + off, med, hi):
             axes[0].text(max(top, 0), yi, f"  {v:+.1f}", va="center", fontsize=7)
-        best = results.target_results[ti].best
-        yb = y[names.index(best)] + off
+        k = names.index(str(ds["best"].values[ti]))
         axes[0].plot(
-            [results.antenna(best).snr_gain_median_db[ti]],
-            [yb],
+            [med[k]],
+            [y[k] + off],
             marker="*",
             color="gold",
             ms=12,
@@ -380,8 +379,8 @@ def ranking_chart(results, *, ax=None):
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
     axes[1].set_title("RDF per target", fontsize=10)
-    target = results.receiver["margin_target_db"]
-    margin = [float(np.min(c.margin_db)) for c in cands]
+    target = ds.attrs["margin_target_db"]
+    margin = cands["margin_db"].min(("month", "utc_hour")).values
     axes[2].barh(y, margin, height=0.6, color=["darkorange" if m < target else "slategray" for m in margin])
     axes[2].axvline(target, color="crimson", ls=":", label=f"target {target:g} dB")
     for yi, v in zip(y, margin):
@@ -391,7 +390,8 @@ def ranking_chart(results, *, ax=None):
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
-    title = f"Ranking at {results.site['name']}, {results.freq_hz / 1e6:g} MHz (reference: {results.reference.name})"
+    at = ds.attrs
+    title = f"Ranking at {at['site']}, {at['frequency_hz'] / 1e6:g} MHz (reference: {at['reference']})"
     if own:
         fig.suptitle(title, fontsize=11)
         fig.tight_layout()

@@ -4,7 +4,7 @@
 (:class:`snrgain.noise.SkySeries`), one :class:`AntennaResult` for the
 reference and for each candidate (ranked, best first), the pattern cuts the
 figures draw, and :class:`Notice` records (a code and its values; the
-sentences are written at the edge, :mod:`snrgain.messages`).
+sentences are written at the edge, :mod:`snrgain.messages`; the class lives in :mod:`snrgain.notices`).
 :meth:`Results.to_dict` is the JSON output.
 """
 
@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from snrgain.noise import SkySeries
+from snrgain.notices import Notice  # re-exported: the documented path snrgain.results.Notice
 
 SCHEMA_VERSION = "2"
 
@@ -81,21 +82,6 @@ class AntennaResult:
     def __repr__(self) -> str:
         per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
         return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
-
-
-@dataclass(frozen=True)
-class Notice:
-    """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
-
-    Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
-    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg,
-    lobe_deg, off_deg: an array whose main lobe points more than 90 deg away from its bearing),
-    ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|).
-    """
-
-    code: str
-    antenna: str | None = None
-    values: dict[str, Any] = field(default_factory=dict)
 
 
 @dataclass
@@ -181,6 +167,54 @@ class Results:
         if self.plan is not None:
             head += f"; plan: {len(self.plan.antennas)} antenna(s), {self.plan.gain_db:+.1f} dB"
         return head + (f"; {len(self.notices)} notice(s))" if self.notices else ")")
+
+    def to_xarray(self):
+        """The results as one labelled :class:`xarray.Dataset`, units in every variable's ``attrs["units"]``.
+
+        Dimensions: ``antenna`` (the reference, then the candidates in the scenario's order; coordinates
+        ``family``, ``is_reference``), ``target`` (coordinates ``weight``, ``bearing_deg``, ``elevation_min_deg``,
+        ``elevation_max_deg``, ``best``, ``runner_up``), ``month`` (1-12), ``utc_hour`` [h], ``quantile`` (0.1,
+        0.5, 0.9), ``component`` (the noise components; coordinate ``component_kind``) and
+        ``atmospheric_decile`` ("upper", "lower").  Variables, with their units:
+
+        - per antenna, target, month, hour: ``snr_gain_db`` [dB] (NaN where the target is not listened for);
+          ``snr_gain_atmospheric_deciles_db`` [dB] (also per atmospheric_decile; NaN without atmospheric noise);
+        - per antenna and target: ``snr_gain_quantile_db`` [dB] (per quantile: the 10 %, median and 90 %
+          points), ``snr_gain_nominal_db`` [dB], ``probability_beats_reference`` [-], ``rank_for_target`` [-]
+          (0: the reference), ``rdf_db`` [dB], ``front_to_back_db`` [dB], ``gain_toward_target_dbi`` [dBi];
+        - per antenna: ``mean_gain_dbi`` [dBi], ``receiver_limited`` [-], ``chain_noise_figure_db`` [dB],
+          ``chain_gain_db`` [dB], ``chain_noise_floor_dbm`` [dBm];
+        - per antenna, month, hour: ``noise_dbm`` [dBm], ``noise_by_component_dbm`` [dBm] (also per component),
+          ``margin_db`` [dB], ``receiver_snr_loss_db`` [dB], ``preamp_gain_needed_db`` [dB];
+        - per target: ``best_margin_db`` [dB];
+        - the sky on P.372's reference monopole: ``fa_db``, ``upper_decile_db``, ``lower_decile_db`` per
+          component, month, hour [dB, Fa above kT0b]; ``total_fa_db``, ``total_upper_decile_db``,
+          ``total_lower_decile_db``, ``median_power_sum_fa_db`` [dB] and ``median_power_sum_temperature_k`` [K]
+          per month and hour; ``daytime`` [-].
+
+        Dataset attributes: ``site``, ``latitude_deg``, ``longitude_deg``, ``frequency_hz``, ``bandwidth_hz``,
+        ``reference``, ``beat_by_db``, ``margin_target_db``, ``nside``, ``scenario``.  Select by label, e.g.
+        ``ds.snr_gain_db.sel(antenna="four-square west", target="East Asia")``.  Needs xarray (a dependency).
+        """
+        from snrgain.labelled import to_xarray
+
+        return to_xarray(self)
+
+    def to_dataframe(self, *, listened_only: bool = True):
+        """The results as a tidy :class:`pandas.DataFrame`: one row per target, antenna, month and UTC hour.
+
+        Rows: the targets in the scenario's order, each target's antennas by rank (the reference first, rank 0),
+        then month and hour; only the months and hours the target is listened at unless ``listened_only`` is
+        False.  Columns (units in the names): ``target``, ``rank_for_target`` [-], ``antenna``, ``family``,
+        ``month``, ``utc_hour`` [h], ``snr_gain_db`` [dB], ``gain_toward_target_dbi`` [dBi], ``rdf_db`` [dB],
+        ``front_to_back_db`` [dB], ``noise_dbm`` [dBm], ``margin_db`` [dB], ``receiver_snr_loss_db`` [dB],
+        ``preamp_gain_needed_db`` [dB], ``snr_gain_nominal_db``, ``snr_gain_p10_db``, ``snr_gain_median_db``,
+        ``snr_gain_p90_db`` [dB] (per antenna and target, repeated over its hours) and
+        ``probability_beats_reference`` [-].  Built from :meth:`to_xarray`; the CSV output is this table.
+        """
+        from snrgain.labelled import to_dataframe
+
+        return to_dataframe(self, listened_only=listened_only)
 
     def to_dict(self) -> dict[str, Any]:
         """A JSON-ready dict (numbers as floats and lists; units in the keys; schema in README, "Output")."""

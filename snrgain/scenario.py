@@ -24,7 +24,7 @@ from snrgain import targets as targetmod
 from snrgain.antennas import FAMILIES, Antenna, SpecError
 from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import item_label, pydantic_problems
-from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES, WIRE_FAMILIES
+from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES, placeable_families
 from snrgain.errors import ScenarioError
 from snrgain.fields import (
     Bearing,
@@ -52,10 +52,6 @@ _SRC = noisemod.LocalSource
 # -- the sections ------------------------------------------------------------
 
 
-PLACEABLE_FAMILIES = (*WIRE_FAMILIES, "vertical", "terminated-loop", "small-loop")
-"""Families ``snrgain layout`` can move: one feed point, a bearing, and for wires a length."""
-
-
 class PlaceSection(StrictModel):
     """What ``snrgain layout`` may change of a candidate: its position (always, within the lot), and its bearing
     and length within ranges."""
@@ -73,8 +69,8 @@ class PlaceSection(StrictModel):
 
     def problem_for(self, antenna) -> str | None:
         """Why this antenna cannot be placed as asked, or None."""
-        if antenna.family not in PLACEABLE_FAMILIES:
-            return f"snrgain layout places {', '.join(PLACEABLE_FAMILIES)}; not {antenna.family!r}"
+        if not antenna.placeable:  # one feed point, a bearing, and for wires a length (declared by the family)
+            return f"snrgain layout places {', '.join(placeable_families())}; not {antenna.family!r}"
         if self.length is not None and not hasattr(antenna, "length_m"):
             return f"a {antenna.family} has no length to vary"
         if self.bearing is not None and not hasattr(antenna.params, "bearing"):
@@ -768,7 +764,7 @@ def _attach_combinations(antennas: list[Antenna], wheres: list[str]) -> list[tup
         by_name.setdefault(antennas[0].name, antennas[0])
     out = []
     for ant, where in zip(antennas, wheres):
-        if ant.family != "combination":
+        if not ant.composite:
             continue
         parts = []
         for i, name in enumerate(ant.params.antennas):

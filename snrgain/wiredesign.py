@@ -23,15 +23,18 @@ import numpy as np
 
 from noisemodels.sphere import Directions, upper_hemisphere
 from snrgain import lines, snr
-from snrgain.antennas import from_spec
+from snrgain.antennas import FAMILIES, from_spec
 from snrgain.antennas.base import variant
-from snrgain.constants import WIRE_FAMILIES
+from snrgain.constants import wire_families
 from snrgain.ground import C_M_PER_S
 from snrgain.targets import TargetDirections, from_bearing
 
 PRACTICAL_TURNS = (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0)
 """Turns ratios easy to wind on a small two-hole ferrite core (integer and half turns)."""
 
+
+DEFAULT_HEIGHT = "2.5 m"
+"""Height of a wire in the air when none is given (a family with its own default, the BOG, keeps it)."""
 
 DEFAULT_ELEVATION_RAD = np.radians(20.0)
 """Elevation of the target along the wire when none is given [rad]: a typical low-band DX arrival angle
@@ -193,28 +196,26 @@ def wire_spec(
 ) -> dict:
     """An antenna spec for a long wire from design options (units as in scenario files).
 
-    The far-end keys go only to the families that have them; ``height`` defaults to 2.5 m (2 cm, the axis
-    height, for a BOG; "on soil" rests it on the soil); ``depth`` buries a BOG; ``conductivity`` with
-    ``permittivity`` replaces a named ``ground``.
+    Each key goes only to the families whose table takes it (their parameter model says which): the far-end
+    keys, ``depth`` (a wire on the ground may be buried), ``termination``.  ``height`` defaults to the family's
+    own default where it has one (a BOG's axis 2 cm above the soil; "on soil" rests it on the soil), else to
+    :data:`DEFAULT_HEIGHT`; ``conductivity`` with ``permittivity`` replaces a named ``ground``.
     """
-    if family not in WIRE_FAMILIES:
-        raise ValueError(f"family must be one of {', '.join(WIRE_FAMILIES)}; got {family!r}")
-    spec = {
-        "family": family,
-        "length": length,
-        "coax": int(coax),
-        "feed_ground": feed_ground,
-        "height": height or ("2 cm" if family == "bog" else "2.5 m"),
-    }
+    if family not in wire_families():
+        raise ValueError(f"family must be one of {', '.join(wire_families())}; got {family!r}")
+    takes = FAMILIES[family].params.model_fields
+    spec = {"family": family, "length": length, "coax": int(coax), "feed_ground": feed_ground}
+    if height is not None or takes["height"].is_required():
+        spec["height"] = DEFAULT_HEIGHT if height is None else height
     if depth is not None:
-        if family != "bog":
+        if "depth" not in takes:
             raise ValueError(f"depth: only a bog (a wire on the ground) can be buried, not a {family}")
         if height is not None:
             raise ValueError("depth: a buried wire has no height above the soil; give one or the other")
         spec["depth"] = depth
-    if family != "unterminated":
+    if "far_ground" in takes:
         spec["far_ground"] = far_ground
-    if family in ("beverage", "bog"):
+    if "termination" in takes:
         spec["termination"] = termination
     elif termination != "auto":
         raise ValueError(f"termination: the {family} family sets its own far end; leave the termination out")
@@ -254,7 +255,7 @@ def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_EL
         "forward_gain_dbi": float(ant.gain_dbi(freq_hz, 0.0, np.degrees(elevation_rad))),
         "safety": SAFETY,
     }
-    if spec["family"] in ("beverage", "bog"):
+    if "termination" in type(ant.params).model_fields:  # a resistor the builder chooses
         t_rdf = best_termination(spec, freq_hz, target=target, metric="rdf")
         t_fb = best_termination(spec, freq_hz, target=target, metric="front_to_back")
         out.update(

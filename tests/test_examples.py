@@ -18,3 +18,20 @@ def test_python_api_example(tmp_path):
     for name in ("azimuth.png", "length-sweep.png"):
         png = tmp_path / name
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and png.stat().st_size > 10_000
+
+
+def test_notebook_example(tmp_path):
+    png = tmp_path / "pattern.png"
+    res = subprocess.run(
+        [sys.executable, str(REPO / "examples" / "notebook.py"), str(png)],
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+    assert res.returncode == 0, res.stderr
+    lines = res.stdout.splitlines()
+    assert "median over the months [dB]" in lines[0] and lines[1] == "utc_hour"
+    hours = [float(ln.split()[0]) for ln in lines[2:7]]
+    assert hours == [2.0, 4.0, 6.0, 8.0, 10.0]  # the demo's listening hours, selected by label
+    assert all(10.0 < float(ln.split()[1]) < 16.0 for ln in lines[2:7])  # README: 12.8 dB nominal toward East Asia
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and png.stat().st_size > 10_000

@@ -61,6 +61,9 @@ class Antenna(ABC):
     """Its setting is chosen under the scenario's own noise sky (a stage of the pipeline returns it set)."""
     sky_order: ClassVar[int] = 0
     """Order in which antennas are set under the sky: a composite after the parts it holds."""
+    resonant_tx: ClassVar[bool] = False
+    """As the reference, a resonant transmitting element that re-radiates what it receives: receiving antennas
+    keep ``[site] tx_clearance`` from it (the transmitting vertical)."""
 
     def __init__(self, params: AntennaParams):
         self.params = params

@@ -73,6 +73,7 @@ class Vertical(Antenna):
     """Vertical monopole; see the module docstring for the model."""
 
     placeable = True
+    resonant_tx = True
 
     def __init__(self, params: VerticalParams):
         super().__init__(params)

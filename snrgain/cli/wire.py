@@ -5,13 +5,24 @@ from __future__ import annotations
 import click
 
 from snrgain.cli.options import emit_json, handle_errors
-from snrgain.constants import WIRE_FAMILIES
+
+
+class WireFamily(click.Choice):
+    """The long-wire families, read from the antenna registry (the classes that declare ``long_wire``) when first
+    needed, so that the command line starts without importing the antennas."""
+
+    def __init__(self) -> None:  # no fixed list of choices: see the property
+        self.case_sensitive = True
+
+    @property
+    def choices(self) -> tuple[str, ...]:
+        from snrgain.constants import wire_families
+
+        return wire_families()
 
 
 @click.command("wire")
-@click.option(
-    "--family", type=click.Choice(WIRE_FAMILIES), default="beverage", show_default=True, help="Kind of long wire."
-)
+@click.option("--family", type=WireFamily(), default="beverage", show_default=True, help="Kind of long wire.")
 @click.option("--frequency", required=True, help="Frequency with unit, e.g. '1.83 MHz'.")
 @click.option("--length", required=True, help="Wire length with unit, e.g. '800 ft'.")
 @click.option(
@@ -107,11 +118,11 @@ def wire(
 
     length_m, rule_m, best_m = ant["length_m"], out["length_rule_m"], out["best_length_m"]
     z0 = complex(*ln["z0_ohm"])
-    if family != "bog":
+    if "depth_m" not in ant:  # a wire in the air (one on the ground may be buried: its description gives a depth)
         where = f"at {ant['height_m']:g} m over"
     elif ant.get("depth_m"):
         where = f"buried {100 * ant['depth_m']:g} cm deep in"
-    elif spec["height"] == "on soil":
+    elif spec.get("height") == "on soil":
         where = "resting on"
     else:
         where = f"its axis {100 * ant['height_m']:g} cm above"
