@@ -118,7 +118,7 @@ class Problem:
             b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
             self.target.append(nearest_target(sc, b))
         self.tx = None
-        if sc.reference.placeable and not sc.reference.long_wire:  # the TX vertical (or loop) next door
+        if sc.reference.resonant_tx:
             from shapely.geometry import Point
 
             self.tx = Point(*self.ref_m)
