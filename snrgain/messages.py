@@ -76,3 +76,22 @@ def preamp_advice_text(gain_db: float, position: str | None) -> str:
         where = "before the receiver" if position == "receiver" else "at the antenna, after the transformer"
         which = f"a preamplifier of {SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
     return f"About {gain_db:.0f} dB of gain from {which} would reach the target."
+
+
+PLAN_WORTH = (
+    "each target's median SNR gain on the antenna that serves it, averaged over the targets by weight as power ratios"
+)
+"""What the station plan's worth is, in words (snrgain.plan)."""
+
+
+def plan_not_best_text(target: str, why: dict) -> str:
+    """Why the plan serves a target with another antenna than the target's best, in words."""
+    reason = (
+        "the plan holds no more antennas ([plan] max_antennas)"
+        if why["reason"] == "max_antennas"
+        else "building it adds less than 0.1 dB to the plan as a whole"
+    )
+    return (
+        f"{target}: the best, {why['best']} ({why['best_db']:+.1f} dB), is not in the plan because {reason}; "
+        f"{why['served_by']} serves it ({why['served_db']:+.1f} dB)."
+    )

@@ -237,6 +237,8 @@ def plan_text(r: Results):
     """The station plan in words: what to build, in order, the dB each adds, and who serves which target when."""
     from rich.text import Text
 
+    from snrgain.messages import PLAN_WORTH, plan_not_best_text
+
     p = r.plan
     out = Text()
     out.append("Station plan", style="bold")
@@ -245,14 +247,15 @@ def plan_text(r: Results):
         out.append(f"{limit}: no candidate adds {0.1:g} dB or more; keep {r.reference.name}.\n")
         return out
     out.append(
-        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone "
-        "(weighted mean over targets of the best antenna's SNR gain at each hour)\n"
+        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone ({PLAN_WORTH})\n"
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
         out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also_build(r, k)}\n")
     for t, rows in sorted(p.by_target.items()):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
+    for t, why in sorted(p.not_best.items()):
+        out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why)}\n")
     return out
 
 

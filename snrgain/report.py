@@ -238,14 +238,16 @@ def _spread_words(r) -> str:
 
 
 def _plan(r) -> str:
+    from snrgain.messages import PLAN_WORTH, plan_not_best_text
+    from snrgain.output import also_build
+
     p = r.plan
     if not p.antennas:
         return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
     out = [
         f"<p>Build {len(p.antennas)}, worth <b>{p.gain_db:+.1f} dB</b> over {_e(r.reference.name)} alone "
-        "(the weighted mean over targets of the best antenna's SNR gain at each hour), in this order:</p><ol>"
+        f"({PLAN_WORTH}), in this order:</p><ol>"
     ]
-    from snrgain.output import also_build
 
     out += [
         f"<li>{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
@@ -263,6 +265,7 @@ def _plan(r) -> str:
                 f"<td>{_f(s.snr_gain_db)}</td></tr>"
             )
     out.append("</table>")
+    out += [f"<p>{_e(plan_not_best_text(r.targets[t]['name'], why))}</p>" for t, why in sorted(p.not_best.items())]
     return "\n".join(out)
 
 

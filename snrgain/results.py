@@ -18,7 +18,7 @@ import numpy as np
 from snrgain.noise import SkySeries
 from snrgain.notices import Notice  # re-exported: the documented path snrgain.results.Notice
 
-SCHEMA_VERSION = "2"
+SCHEMA_VERSION = "3"
 
 
 @dataclass
@@ -295,6 +295,7 @@ class Results:
                 }
                 for t, rows in sorted(p.by_target.items())
             ],
+            "not_best": [{"target": self.targets[t]["name"], **why} for t, why in sorted(p.not_best.items())],
         }
 
 
