@@ -320,7 +320,7 @@ def hourly_components(
 # -- the series -------------------------------------------------------------------------------------------------
 
 
-@dataclass
+@dataclass(frozen=True)
 class SkySeries:
     """The noise sky as P.372's reference monopole sees it, per month and hour.
 

@@ -21,7 +21,7 @@ from snrgain.notices import Notice  # re-exported: the documented path snrgain.r
 SCHEMA_VERSION = "3"
 
 
-@dataclass
+@dataclass(frozen=True)
 class AntennaResult:
     """Numbers for one antenna.  Array axes: [target, month, hour] or [month, hour].
 
@@ -84,7 +84,7 @@ class AntennaResult:
         return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
 
 
-@dataclass
+@dataclass(frozen=True)
 class TargetResult:
     """One target's answer: the candidates ranked by median SNR gain toward it, the best and its margin."""
 
@@ -98,7 +98,7 @@ class TargetResult:
     """The best's median SNR gain minus the runner-up's [dB]."""
 
 
-@dataclass
+@dataclass(frozen=True)
 class PatternCuts:
     """Total gain [dBi] on an azimuth cut at each target's mean elevation and on an elevation cut toward each
     target's bearing: antenna name -> array (targets, cut points)."""
@@ -109,7 +109,7 @@ class PatternCuts:
     elevation: dict[str, np.ndarray]
 
 
-@dataclass(repr=False)
+@dataclass(frozen=True, repr=False)
 class Results:
     """Everything ``evaluate`` computed.  ``candidates`` are in the scenario's order; ``target_results`` rank them
     per target; ``plan`` says which to build."""

@@ -88,7 +88,7 @@ def snr_gain_db(signal_a, noise_a, signal_r, noise_r):
 # -- the integrator's steps over a whole scenario --------------------------------------------------------------
 
 
-@dataclass
+@dataclass(frozen=True)
 class Gains:
     """Every antenna's gains: a cache per antenna for any sky sample set, toward each target, and averaged.
 
@@ -110,7 +110,7 @@ def antenna_gains(antennas, freq_hz: float, grid: Directions, targets) -> Gains:
     return Gains(caches, toward, mean)
 
 
-@dataclass
+@dataclass(frozen=True)
 class Temperatures:
     """Antenna temperatures [K] from the sky: ``by_component`` (components, antennas, months, hours), ``total`` its
     sum over components (antennas, months, hours)."""

@@ -42,7 +42,7 @@ _GH3 = ((-np.sqrt(3.0), 1.0 / 6.0), (0.0, 2.0 / 3.0), (np.sqrt(3.0), 1.0 / 6.0))
 """Three-point Gauss-Hermite rule for a standard normal variable: (node, weight)."""
 
 
-@dataclass
+@dataclass(frozen=True)
 class SnrSpread:
     """Per antenna and target (arrays (antennas, targets)): the SNR gain's median, 10 % and 90 % points [dB], and
     the probability [-] that it reaches ``beat_by_db`` over the reference."""
@@ -130,42 +130,103 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
     return out
 
 
+DRAW_BLOCK = 1000
+"""Noise draws worked at once: memory for the draws' level factors stays near DRAW_BLOCK x components x cells."""
+EXACT_VALUES = 500_000
+"""Up to this many weighted samples a quantile is taken by sorting them; above, on a 0.001 dB histogram."""
+
+
+def noise_db(factors_of, temps_by_component, t_chain_k: float, draws: int) -> np.ndarray:
+    """An antenna's noise [dB K] under each draw, (draws, months, hours): its temperature from each component
+    scaled by the draw's level factors, plus its chain's; the draws worked DRAW_BLOCK at a time."""
+    out = []
+    for start in range(0, draws, DRAW_BLOCK):
+        f = factors_of(start, min(start + DRAW_BLOCK, draws))  # (block, comps, months, hours)
+        out.append(10.0 * np.log10(np.einsum("ncmh,cmh->nmh", f, temps_by_component) + t_chain_k))
+    return np.concatenate(out)
+
+
 def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
     """The SNR gain's spread for every antenna and target (module docstring): a map of the pipeline's stages over
-    the ground nodes, then of the noise draws.  Worked one antenna at a time, so memory grows with the draws, the
-    targets and the hours, not with the number of antennas."""
+    the ground nodes, then of the noise draws.
+
+    The SNR gain over the reference under a draw is the ratio of signals (one number per antenna and target)
+    over the ratio of noises (per draw, month and hour, the same for every target), so the noise is worked once per
+    antenna and node, and memory grows with the draws and the hours, not with the antennas or the targets.
+    """
     u = sc.uncertainty
     per_node = variants(sc, nominal, grid, skies)
     local = {s.name: s.uncertainty_db for s in sc.noise.local} if u.local_sources else {}
     offsets = noise_offsets_db(skies, local, samples=u.samples, seed=u.seed, deciles=u.noise_deciles)
-    factors = 10.0 ** (offsets / 10.0)  # (draws, comps, months, hours)
+    draws = offsets.shape[0]
+
+    def factors_of(i, j):
+        return 10.0 ** (offsets[i:j] / 10.0)
+
     t_chain = np.array([c.temperature_k for c in sc.chains])
     masks = [times.mask(sc.times) for times in sc.target_times]
-
-    def own_db(p, a):  # (draws, targets, months, hours): the antenna's own SNR [dB] under each draw
-        noise = np.einsum("ncmh,cmh->nmh", factors, p.temps.by_component[:, a]) + t_chain[a]
-        with np.errstate(divide="ignore"):
-            return 10.0 * np.log10(p.gains.toward[a][None, :, None, None] / noise[:, None])
-
-    refs = [own_db(p, 0) for p, _ in per_node]
+    with np.errstate(divide="ignore"):
+        ref_noise = [noise_db(factors_of, p.temps.by_component[:, 0], t_chain[0], draws) for p, _ in per_node]
     n_ant, n_tgt = nominal.gains.toward.shape
     out = {k: np.zeros((n_ant, n_tgt)) for k in ("median", "p10", "p90", "prob")}
     for a in range(n_ant):
-        gain = [(own_db(p, a) - ref, w) for (p, w), ref in zip(per_node, refs)]
+        with np.errstate(divide="ignore"):
+            nodes = [
+                (
+                    10.0 * np.log10(p.gains.toward[a] / p.gains.toward[0]),  # (targets,)
+                    noise_db(factors_of, p.temps.by_component[:, a], t_chain[a], draws) - ref,  # (draws, m, h)
+                    weight,
+                )
+                for (p, weight), ref in zip(per_node, ref_noise)
+            ]
         for t_idx, mask in enumerate(masks):
             values, weights = [], []
-            for g, weight in gain:
-                cells = g[:, t_idx][:, mask]  # (draws, cells)
+            for signal, noise, weight in nodes:
+                cells = signal[t_idx] - noise[:, mask]  # (draws, cells)
                 if not u.hours:
                     cells = cells.mean(axis=1, keepdims=True)
                 values.append(cells.ravel())
                 weights.append(np.full(cells.size, weight / cells.size))
             v, w = np.concatenate(values), np.concatenate(weights)
-            out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx] = weighted_quantiles(
-                v, w, (0.1, 0.5, 0.9)
-            )
+            quantiles = weighted_quantiles if v.size <= EXACT_VALUES else binned_quantiles
+            out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx] = quantiles(v, w, (0.1, 0.5, 0.9))
             out["prob"][a, t_idx] = float(np.sum(w[v >= u.beat_by_db]) / np.sum(w))
     return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
+
+
+def spread_size(sc) -> tuple[int, int]:
+    """(weighted samples ranked, bytes of the largest arrays held at once) of a scenario's spread: what its
+    cost grows with, for an estimate before any work."""
+    u = sc.uncertainty
+    nodes = len(ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None))
+    deciles = u.noise_deciles or (u.local_sources and any(s.uncertainty_db > 0 for s in sc.noise.local))
+    draws = u.samples if deciles else 1
+    cells = len(sc.times.months) * len(sc.times.utc_hours)
+    per_target = [int(t.mask(sc.times).sum()) if u.hours else 1 for t in sc.target_times]
+    comps = 3 + len(sc.noise.local)
+    samples = len(sc.antennas) * nodes * draws * sum(per_target)
+    held = 8 * (
+        2 * nodes * draws * cells + min(draws, DRAW_BLOCK) * comps * cells + 2 * nodes * draws * max(per_target)
+    )
+    return samples, held
+
+
+def binned_quantiles(values, weights, quantiles, step_db: float = 0.001) -> tuple[float, ...]:
+    """Quantiles of many weighted samples [dB] on a histogram of ``step_db`` bins (exact to half a bin; linear
+    time, where sorting would dominate a large spread).
+
+    >>> v = np.random.default_rng(1).normal(0.0, 3.0, 2_000_000)
+    >>> b = binned_quantiles(v, np.ones(v.size), (0.1, 0.5, 0.9))
+    >>> bool(np.allclose(b, weighted_quantiles(v, np.ones(v.size), (0.1, 0.5, 0.9)), atol=0.001))
+    True
+    """
+    v = np.clip(np.asarray(values, dtype=float), -400.0, 400.0)
+    w = np.asarray(weights, dtype=float)
+    lo = float(np.min(v))
+    idx = np.rint((v - lo) / step_db).astype(np.int64)
+    cum = np.cumsum(np.bincount(idx, weights=w))
+    cum /= cum[-1]
+    return tuple(float(lo + step_db * np.searchsorted(cum, q)) for q in quantiles)
 
 
 def over_hours(values_db, hours: bool) -> float:

@@ -264,6 +264,7 @@ class _Shared:
         self.ref = pipeline.products(sc, [sc.reference], self.grid, self.skies)
         self.raw_ground = study.data.get("site", {}).get("ground", "moist loam")
         self.names = [c.name for c in sc.candidates]
+        self.tables = [c.get("name") if isinstance(c, dict) else None for c in study.data.get("candidate", [])]
         held = {id(e) for a in sc.candidates if a.composite for e in a.elements}
         self.alone = {a.name for a in sc.candidates if not a.composite and id(a) not in held}
         """Candidates that stand alone: a design that changes one of them rebuilds it alone."""
@@ -275,7 +276,7 @@ class _Shared:
 
         sc = self.sc
         k = self.names.index(name)
-        spec = {key: v for key, v in next(c for c in data["candidate"] if c.get("name") == name).items()}
+        spec = dict(data["candidate"][self.tables.index(name)])  # by place: a design may rename it
         for key in ("chain", "place"):  # the candidate's own chain is the scenario's; its place is layout's
             spec.pop(key, None)
         base = Path(self.study.base_dir) if self.study.base_dir else None
