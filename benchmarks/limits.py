@@ -19,8 +19,8 @@ FAMILIES = [
     'family = "beverage"\nlength = "{L} m"\nheight = "2.5 m"\nbearing = {B}\nposition = ["{E} m", "{N} m"]',
     'family = "bog"\nlength = "{S} m"\nbearing = {B}\nposition = ["{E} m", "{N} m"]',
     'family = "vertical"\nheight = "{H} m"\nposition = ["{E} m", "{N} m"]',
-    'family = "terminated-loop"\nshape = "rectangle"\nwidth = "8 m"\nloop_height = "4 m"\nheight = "4 m"\nbearing = {B}\n'
-    'position = ["{E} m", "{N} m"]',
+    'family = "terminated-loop"\nshape = "rectangle"\nwidth = "8 m"\nloop_height = "4 m"\nheight = "4 m"\n'
+    'bearing = {B}\nposition = ["{E} m", "{N} m"]',
 ]
 
 
