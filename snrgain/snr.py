@@ -133,14 +133,23 @@ def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> T
     nm, nh = len(skies.months), len(skies.utc_hours)
     out = np.zeros((len(skies.names), len(gains.caches), nm, nh))
     index = {n: i for i, n in enumerate(skies.names)}
+    # Cells whose component shares one set of directions are integrated at once: the antennas' gains on that set
+    # (antennas, directions) times the cells' brightness (directions, cells), one product per set.
+    groups: dict[tuple[int, int], tuple] = {}
     for (i, j), comps in skies.maps.items():
-        spread = [c for c in comps if c.name not in pickup]
-        rows = [index[c.name] for c in spread]
-        for k, cache in enumerate(gains.caches):
-            out[rows, k, i, j] = antenna_temperature_k(cache, spread)
         for c in comps:
-            if c.name in pickup:
-                out[index[c.name], :, i, j] = antenna_temperature_k(gains.caches[0], [c])[0] * pickup[c.name]
+            key = (index[c.name], id(c.directions))
+            groups.setdefault(key, (c.directions, c.name, []))[2].append((i, j, c.weight_k_sr))
+    for (row, _), (directions, name, cells) in groups.items():
+        w = np.array([wk for _, _, wk in cells])  # (cells, directions)
+        ii = np.array([i for i, _, _ in cells])
+        jj = np.array([j for _, j, _ in cells])
+        if name in pickup:  # heard through the reference's pattern, then each antenna's share
+            t = np.atleast_2d(gains.caches[0].on(directions)) @ w.T / (4.0 * np.pi)  # (1, cells)
+            out[row, :, ii, jj] = (pickup[name][:, None] * t).T
+        else:
+            g = np.array([cache.on(directions) for cache in gains.caches])  # (antennas, directions)
+            out[row, :, ii, jj] = (g @ w.T / (4.0 * np.pi)).T
     for name, db in (strength_db or {}).items():
         out[index[name]] *= 10.0 ** (db / 10.0)
     return Temperatures(out, out.sum(axis=0))

@@ -133,7 +133,8 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
 DRAW_BLOCK = 1000
 """Noise draws worked at once: memory for the draws' level factors stays near DRAW_BLOCK x components x cells."""
 EXACT_VALUES = 500_000
-"""Up to this many weighted samples a quantile is taken by sorting them; above, on a 0.001 dB histogram."""
+"""Up to this many weighted samples per antenna and target a quantile is taken by sorting them; above, on
+0.001 dB histograms (:class:`Histogram`)."""
 
 
 def noise_db(factors_of, temps_by_component, t_chain_k: float, draws: int) -> np.ndarray:
@@ -179,18 +180,32 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
                 )
                 for (p, weight), ref in zip(per_node, ref_noise)
             ]
+        per_target = [int(m.sum()) if u.hours else 1 for m in masks]
+        if len(nodes) * draws * max(per_target) <= EXACT_VALUES:
+            for t_idx, mask in enumerate(masks):
+                values, weights = [], []
+                for signal, noise, weight in nodes:
+                    cells = signal[t_idx] - noise[:, mask]  # (draws, cells)
+                    if not u.hours:
+                        cells = cells.mean(axis=1, keepdims=True)
+                    values.append(cells.ravel())
+                    weights.append(np.full(cells.size, weight / cells.size))
+                v, w = np.concatenate(values), np.concatenate(weights)
+                stats = (*weighted_quantiles(v, w, (0.1, 0.5, 0.9)), float(np.sum(w[v >= u.beat_by_db]) / np.sum(w)))
+                out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
+            continue
+        hists: dict[bytes, list] = {}  # one histogram of -noise per node and distinct set of listened cells
         for t_idx, mask in enumerate(masks):
-            values, weights = [], []
-            for signal, noise, weight in nodes:
-                cells = signal[t_idx] - noise[:, mask]  # (draws, cells)
-                if not u.hours:
-                    cells = cells.mean(axis=1, keepdims=True)
-                values.append(cells.ravel())
-                weights.append(np.full(cells.size, weight / cells.size))
-            v, w = np.concatenate(values), np.concatenate(weights)
-            quantiles = weighted_quantiles if v.size <= EXACT_VALUES else binned_quantiles
-            out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx] = quantiles(v, w, (0.1, 0.5, 0.9))
-            out["prob"][a, t_idx] = float(np.sum(w[v >= u.beat_by_db]) / np.sum(w))
+            key = mask.tobytes()
+            if key not in hists:
+                hists[key] = [
+                    Histogram.of(-noise[:, mask] if u.hours else -noise[:, mask].mean(axis=1)) for _, noise, _ in nodes
+                ]
+            total = Histogram.sum(
+                [h.shifted(signal[t_idx]).scaled(weight) for h, (signal, _, weight) in zip(hists[key], nodes)]
+            )
+            stats = (*total.quantiles((0.1, 0.5, 0.9)), total.share_at_least(u.beat_by_db))
+            out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
     return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
 
 
@@ -211,22 +226,57 @@ def spread_size(sc) -> tuple[int, int]:
     return samples, held
 
 
-def binned_quantiles(values, weights, quantiles, step_db: float = 0.001) -> tuple[float, ...]:
-    """Quantiles of many weighted samples [dB] on a histogram of ``step_db`` bins (exact to half a bin; linear
-    time, where sorting would dominate a large spread).
+@dataclass(frozen=True)
+class Histogram:
+    """Weighted samples [dB] on bins of STEP_DB: bin k holds the weight of the values nearest ``(start + k) *
+    STEP_DB``.  A constant added to every sample is a shift of whole bins, so the histograms of one antenna's
+    noise serve every target (each adds its signal), in time linear in the samples once and in the bins after."""
 
-    >>> v = np.random.default_rng(1).normal(0.0, 3.0, 2_000_000)
-    >>> b = binned_quantiles(v, np.ones(v.size), (0.1, 0.5, 0.9))
-    >>> bool(np.allclose(b, weighted_quantiles(v, np.ones(v.size), (0.1, 0.5, 0.9)), atol=0.001))
-    True
-    """
-    v = np.clip(np.asarray(values, dtype=float), -400.0, 400.0)
-    w = np.asarray(weights, dtype=float)
-    lo = float(np.min(v))
-    idx = np.rint((v - lo) / step_db).astype(np.int64)
-    cum = np.cumsum(np.bincount(idx, weights=w))
-    cum /= cum[-1]
-    return tuple(float(lo + step_db * np.searchsorted(cum, q)) for q in quantiles)
+    start: int
+    weights: np.ndarray
+
+    STEP_DB = 0.001
+
+    @classmethod
+    def of(cls, values) -> Histogram:
+        """The histogram of equally weighted samples (total weight 1)."""
+        v = np.clip(np.asarray(values, dtype=float).ravel(), -400.0, 400.0)
+        k = np.rint(v / cls.STEP_DB).astype(np.int64)
+        lo = int(k.min())
+        return cls(lo, np.bincount(k - lo) / v.size)
+
+    def shifted(self, db: float) -> Histogram:
+        return Histogram(self.start + int(np.rint(db / self.STEP_DB)), self.weights)
+
+    def scaled(self, factor: float) -> Histogram:
+        return Histogram(self.start, self.weights * factor)
+
+    @staticmethod
+    def sum(hists) -> Histogram:
+        lo = min(h.start for h in hists)
+        hi = max(h.start + h.weights.size for h in hists)
+        w = np.zeros(hi - lo)
+        for h in hists:
+            w[h.start - lo : h.start - lo + h.weights.size] += h.weights
+        return Histogram(lo, w)
+
+    def quantiles(self, qs) -> tuple[float, ...]:
+        """The values [dB] below which the fractions ``qs`` of the weight lie (to half a bin).
+
+        >>> v = np.random.default_rng(1).normal(0.0, 3.0, 2_000_000)
+        >>> h = Histogram.of(v).quantiles((0.1, 0.5, 0.9))
+        >>> bool(np.allclose(h, weighted_quantiles(v, np.ones(v.size), (0.1, 0.5, 0.9)), atol=0.001))
+        True
+        """
+        nz = np.nonzero(self.weights)[0]  # as weighted_quantiles: linear between the bins' weight midpoints
+        w = self.weights[nz]
+        mid = (np.cumsum(w) - 0.5 * w) / w.sum()
+        return tuple(float(np.interp(q, mid, (self.start + nz) * self.STEP_DB)) for q in qs)
+
+    def share_at_least(self, db: float) -> float:
+        """The fraction of the weight at or above ``db``."""
+        k = int(np.ceil(db / self.STEP_DB - 1e-9)) - self.start
+        return float(self.weights[max(k, 0) :].sum() / self.weights.sum())
 
 
 def over_hours(values_db, hours: bool) -> float:
