@@ -105,7 +105,14 @@ class Gains:
 def antenna_gains(antennas, freq_hz: float, grid: Directions, targets) -> Gains:
     """Gains of every antenna on the sky grid and toward every target at one frequency [Hz]."""
     caches = [GainCache(lambda az, el, a=a: a.gain_linear(freq_hz, az, el)) for a in antennas]
-    toward = np.array([[target_gain(c.gain_fn, t) for t in targets] for c in caches]).reshape(len(caches), len(targets))
+    toward = np.zeros((len(caches), len(targets)))
+    if targets:  # every target's directions in one call per antenna
+        az = np.concatenate([t.azimuth_rad for t in targets])
+        el = np.concatenate([t.elevation_rad for t in targets])
+        w = np.concatenate([t.weight for t in targets])
+        which = np.repeat(np.arange(len(targets)), [len(t.weight) for t in targets])
+        for k, c in enumerate(caches):
+            toward[k] = np.bincount(which, weights=w * c.gain_fn(az, el), minlength=len(targets))
     mean = np.array([sphere_mean_gain(c.on(grid), grid) for c in caches])
     return Gains(caches, toward, mean)
 
@@ -176,17 +183,15 @@ def pattern_cuts(antennas, freq_hz: float, targets) -> tuple[np.ndarray, np.ndar
     """Total gain [dBi] of each antenna on an azimuth cut at each target's mean elevation and on an elevation cut
     toward each target's bearing: arrays (antennas, targets, AZIMUTH_CUT_DEG) and (antennas, targets,
     ELEVATION_CUT_DEG)."""
-    with np.errstate(divide="ignore"):
-        az = np.array(
-            [
-                [a.gain_dbi(freq_hz, AZIMUTH_CUT_DEG, np.degrees(t.mean_elevation_rad)) for t in targets]
-                for a in antennas
-            ]
-        )
-        el = np.array(
-            [[a.gain_dbi(freq_hz, np.degrees(t.bearing_rad), ELEVATION_CUT_DEG) for t in targets] for a in antennas]
-        )
-    return az, el
+    n_az, n_el = len(AZIMUTH_CUT_DEG), len(ELEVATION_CUT_DEG)
+    cut_az = np.concatenate(  # every target's two cuts as one set of directions [deg]
+        [np.concatenate([AZIMUTH_CUT_DEG, np.full(n_el, np.degrees(t.bearing_rad))]) for t in targets] or [[]]
+    )
+    cut_el = np.concatenate(
+        [np.concatenate([np.full(n_az, np.degrees(t.mean_elevation_rad)), ELEVATION_CUT_DEG]) for t in targets] or [[]]
+    )
+    g = np.array([a.gain_dbi(freq_hz, cut_az, cut_el) for a in antennas]).reshape(len(antennas), len(targets), -1)
+    return g[:, :, :n_az], g[:, :, n_az:]
 
 
 def snr_gain_over_reference(toward, noise_k) -> np.ndarray:

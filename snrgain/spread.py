@@ -132,6 +132,8 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
 
 DRAW_BLOCK = 1000
 """Noise draws worked at once: memory for the draws' level factors stays near DRAW_BLOCK x components x cells."""
+FACTORS_HELD = 32_000_000
+"""Up to this many draw x component x cell level factors (256 MB) are computed once and held; beyond, per block."""
 EXACT_VALUES = 500_000
 """Up to this many weighted samples per antenna and target a quantile is taken by sorting them; above, on
 0.001 dB histograms (:class:`Histogram`)."""
@@ -161,8 +163,10 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
     offsets = noise_offsets_db(skies, local, samples=u.samples, seed=u.seed, deciles=u.noise_deciles)
     draws = offsets.shape[0]
 
+    held = 10.0 ** (offsets / 10.0) if offsets.size <= FACTORS_HELD else None  # (draws, comps, months, hours)
+
     def factors_of(i, j):
-        return 10.0 ** (offsets[i:j] / 10.0)
+        return held[i:j] if held is not None else 10.0 ** (offsets[i:j] / 10.0)
 
     t_chain = np.array([c.temperature_k for c in sc.chains])
     masks = [times.mask(sc.times) for times in sc.target_times]
