@@ -1,0 +1,172 @@
+"""The storm sky computed once: the memoised, vectorised evaluation against straightforward reference ones.
+
+The P.372 maps are evaluated per time block and place in one vectorised pass, and the storm model memoises its
+geodesics, its P.372 block values and its HEALPix interpolation weights.  Each is checked here against a plain
+evaluation that follows the published steps one place and one hour at a time (no cache, no vectorisation),
+to 1e-9 relative: the two differ only by the order of floating-point sums.
+"""
+
+import math
+
+import numpy as np
+import pytest
+
+from noisemodels import p372, p372_maps, sky, sphere, storms
+from noisemodels.hops import EARTH_RADIUS_M
+from tests.conftest import P372_DIR, needs_p372
+
+pytestmark = needs_p372
+
+RTOL = 1e-9
+
+
+def _poly(coeffs, x):
+    """Horner's rule, highest power first (the coefficient files' order, noisemodels.p372_maps)."""
+    out = 0.0
+    for a in coeffs:
+        out = out * x + float(a)
+    return out
+
+
+def _reference_block(c, lat_deg, lon_deg, f_mhz, b):
+    """(FaA, Du, Dl) [dB] at one place, frequency and time block: steps 1-4 of p372_maps' docstring, by hand."""
+    q = (math.radians(lon_deg) % (2 * math.pi)) / 2.0
+    p = math.radians(lat_deg) + math.pi / 2
+    z = [sum(c.fakp[b, k, j] * math.sin((k + 1) * q) for k in range(15)) + c.fakp[b, 15, j] for j in range(29)]
+    fam1 = sum(z[j] * math.sin((j + 1) * p) for j in range(29)) + c.fakabp[b, 0] + c.fakabp[b, 1] * p
+    t = b if lat_deg >= 0 else b + 6
+    pz, px = c.fam[t, 0:7], c.fam[t, 7:14]
+    cz = fam1 * (2.0 - _poly(pz, -0.75)) - _poly(px, -0.75)
+    u = (8.0 * 2.0 ** math.log10(f_mhz) - 11.0) / 4.0
+    x = math.log10(min(f_mhz, 20.0))
+    return cz * _poly(pz, u) + _poly(px, u), _poly(c.dud[0, t], x), _poly(c.dud[1, t], x)
+
+
+def _reference_hour(c, lat_deg, lon_deg, f_mhz, utc_hour):
+    """The smooth value at a UTC hour: linear in power between block centres at local mean time."""
+    s = (((utc_hour + lon_deg / 15.0) % 24.0) - 2.0) / 4.0
+    lo = math.floor(s) % 6
+    w = s - math.floor(s)
+    a = _reference_block(c, lat_deg, lon_deg, f_mhz, lo)
+    b = _reference_block(c, lat_deg, lon_deg, f_mhz, (lo + 1) % 6)
+    fa = 10 * math.log10((1 - w) * 10 ** (a[0] / 10) + w * 10 ** (b[0] / 10))
+    return fa, (1 - w) * a[1] + w * b[1], (1 - w) * a[2] + w * b[2]
+
+
+PLACES = [(41.6, -72.35), (-33.9, 151.2), (5.0, 20.0), (-60.0, -170.0), (78.0, 15.0)]
+
+
+@pytest.mark.parametrize("month", [1, 7])
+def test_vectorised_p372_maps_match_a_plain_evaluation(month):
+    c = p372_maps.load_month(month, P372_DIR)
+    lat = np.array([p[0] for p in PLACES])
+    lon = np.array([p[1] for p in PLACES])
+    for f_mhz in (0.5, 1.83, 7.1, 25.0):
+        for b in range(6):
+            got = p372.atmospheric(lat, lon, month=month, freq_hz=f_mhz * 1e6, time_block=b, data_dir=P372_DIR)
+            want = np.array([_reference_block(c, la, lo, f_mhz, b) for la, lo in PLACES])
+            for k, key in enumerate(("fa_db", "du_db", "dl_db")):
+                np.testing.assert_allclose(getattr(got, key), want[:, k], rtol=RTOL, err_msg=key)
+        # Blocks broadcast against places (the per-block table of a month) and the hours' blend.
+        hours = np.array([0.0, 3.5, 9.0, 17.25, 23.9])
+        got = p372.atmospheric(lat, lon, month=month, freq_hz=f_mhz * 1e6, utc_hour=hours, data_dir=P372_DIR)
+        want = np.array([_reference_hour(c, la, lo, f_mhz, h) for (la, lo), h in zip(PLACES, hours)])
+        for k, key in enumerate(("fa_db", "du_db", "dl_db")):
+            np.testing.assert_allclose(getattr(got, key), want[:, k], rtol=RTOL, err_msg=key)
+
+
+def test_block_table_blends_like_the_hourly_call():
+    # One place, many hours: the month's six blocks computed once give every hour's value (and its shape).
+    blocks = p372.atmospheric_blocks(43.15, -89.6, month=12, freq_hz=1.83e6, data_dir=P372_DIR)
+    assert blocks.fa_db.shape == (6,)
+    hours = np.linspace(0.0, 23.5, 48).reshape(6, 8)
+    got = blocks.at_utc_hour(hours)
+    assert got.fa_db.shape == (6, 8)
+    c = p372_maps.load_month(12, P372_DIR)
+    want = np.array([_reference_hour(c, 43.15, -89.6, 1.83, h)[0] for h in hours.ravel()]).reshape(hours.shape)
+    np.testing.assert_allclose(got.fa_db, want, rtol=RTOL)
+
+
+def _reference_storm_weights(lat, lon, *, month, utc_hour, freq_hz, level, grid, layer_height_m=250e3):
+    """The storm model's sky for one hour, computed from scratch (module docstring of noisemodels.storms):
+    geodesics, P.372 map, hops, absorption and the healpy deposit, nothing memoised."""
+    from pyproj import Geod
+
+    from noisemodels import solar
+    from noisemodels.hops import fewest_hops, hop_elevation_rad
+
+    step_b, step_d = 3.0, 100e3
+    b, d = np.meshgrid(np.arange(0.0, 360.0, step_b), np.arange(step_d, 12_000e3 + 1.0, step_d), indexing="ij")
+    geod = Geod(ellps="WGS84")
+    lon2, lat2, _ = geod.fwd(np.full(b.size, lon), np.full(b.size, lat), b.ravel(), d.ravel())
+    fa = p372.atmospheric(
+        lat2.reshape(b.shape), lon2.reshape(b.shape), month=month, freq_hz=freq_hz, utc_hour=utc_hour, data_dir=P372_DIR
+    ).fa_db
+    kw = dict(layer_height_m=layer_height_m, min_elevation_rad=storms.MIN_ELEVATION_RAD)
+    n = fewest_hops(d, **kw)
+    el = hop_elevation_rad(d, n, layer_height_m=layer_height_m)
+    loss = storms.GROUND_LOSS_DB_PER_REFLECTION * (n - 1.0)
+    doy = solar.mid_month_day_of_year(month)
+    for i in range(1, int(n.max()) + 1):
+        lo, la, _ = geod.fwd(
+            np.full(b.size, lon), np.full(b.size, lat), b.ravel(), (d * (2 * i - 1) / (2.0 * n)).ravel()
+        )
+        chi = np.pi / 2 - solar.solar_elevation_rad(np.radians(la), np.radians(lo), day_of_year=doy, utc_hour=utc_hour)
+        loss += np.where(n >= i, storms.hop_absorption_db(freq_hz / 1e6, el, chi.reshape(b.shape)), 0.0)
+    power = 10 ** (fa / 10) / (EARTH_RADIUS_M * np.sin(d / EARTH_RADIUS_M)) * 10 ** (-loss / 10)
+    power = power * np.radians(step_b) * step_d
+    ns, nb = storms.SUB_DISTANCE, storms.SUB_BEARING
+    d_sub = np.clip(d[..., None] + ((np.arange(ns) + 0.5) / ns - 0.5) * step_d, 1e3, None)
+    el_sub = hop_elevation_rad(d_sub, fewest_hops(d_sub, **kw), layer_height_m=layer_height_m)
+    az_sub = np.radians(b[..., None, None] + ((np.arange(nb) + 0.5) / nb - 0.5) * step_b)
+    shape = d.shape + (ns, nb)
+    samples = (
+        np.broadcast_to(az_sub, shape).ravel(),
+        np.broadcast_to(el_sub[..., None], shape).ravel(),
+        np.broadcast_to((power / (ns * nb))[..., None, None], shape).ravel(),
+    )
+    per_pixel = storms.deposit(grid, *samples)
+    return sky.normalised_component("ref", "atmospheric", grid, per_pixel / grid.solid_angle_sr, level).weight_k_sr
+
+
+@pytest.mark.parametrize(
+    "site, month, freq_hz", [((43.15, -89.6), 12, 1.83e6), ((-33.9, 151.2), 1, 3.6e6), ((60.0, 10.0), 3, 7.1e6)]
+)
+def test_memoised_storm_sky_matches_a_from_scratch_evaluation(site, month, freq_hz):
+    grid = sphere.upper_hemisphere(16)
+    level = p372.NoiseLevel(55.0, 8.0, 6.0)
+    for hour in (2.0, 13.5, 2.0):  # the last one from a warm cache
+        got = storms.storm_component(
+            *site, month=month, utc_hour=hour, freq_hz=freq_hz, level=level, directions=grid, data_dir=P372_DIR
+        ).weight_k_sr
+        want = _reference_storm_weights(*site, month=month, utc_hour=hour, freq_hz=freq_hz, level=level, grid=grid)
+        np.testing.assert_allclose(got, want, rtol=RTOL, atol=RTOL * want.max())
+
+
+def test_memo_is_keyed_by_its_inputs():
+    g1 = storms.path_geometry(43.15, -89.6, 250e3, 3.0, 100e3, 12_000e3)
+    assert storms.path_geometry(43.15, -89.6, 250e3, 3.0, 100e3, 12_000e3) is g1
+    g2 = storms.path_geometry(43.15, -89.6, 300e3, 3.0, 100e3, 12_000e3)
+    assert g2 is not g1 and not np.array_equal(g2.elevation_rad, g1.elevation_rad)
+    # Another month or frequency gives other block values; the cached arrays cannot be written to.
+    a = storms.p372_blocks(g1, month=1, freq_hz=1.83e6, data_dir=P372_DIR)
+    assert storms.p372_blocks(g1, month=1, freq_hz=1.83e6, data_dir=P372_DIR) is a
+    assert not np.allclose(storms.p372_blocks(g1, month=7, freq_hz=1.83e6, data_dir=P372_DIR).fa_db, a.fa_db)
+    with pytest.raises(ValueError):
+        g1.elevation_rad[0, 0] = 1.0
+
+
+def test_missing_data_still_fails_clearly(tmp_path, monkeypatch):
+    monkeypatch.delenv(p372_maps.ENV_VAR, raising=False)
+    grid = sphere.upper_hemisphere(8)
+    with pytest.raises(p372_maps.P372DataError, match="COEFF02W.txt"):
+        storms.storm_component(
+            10.0,
+            10.0,
+            month=2,
+            utc_hour=1.0,
+            freq_hz=1.83e6,
+            level=p372.NoiseLevel(50.0, 0, 0),
+            directions=grid,
+            data_dir=tmp_path,
+        )
