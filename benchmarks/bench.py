@@ -555,6 +555,9 @@ def realistic_site():
 
 
 if __name__ == "__main__":
+    from snrgain.allocator import tune
+
+    tune()  # as the command line does
     if "--site" in sys.argv[1:]:
         realistic_site()
         nec_ratios()

@@ -30,7 +30,6 @@ optimum itself.
 from __future__ import annotations
 
 import numpy as np
-from scipy import linalg, optimize
 
 FB_FLOOR = 1e-6
 """Front-to-back is maximised as G_front / (G_back + FB_FLOOR G_front): a null deeper than 60 dB counts no more."""
@@ -52,6 +51,8 @@ def free_optimum(s: np.ndarray, n: np.ndarray) -> np.ndarray:
     """u maximising u^H S u / u^H N u (principal generalised eigenvector), scaled to unit largest magnitude."""
     n = 0.5 * (n + n.conj().T)
     s = 0.5 * (s + s.conj().T)
+    from scipy import linalg  # slow to import: here, when needed
+
     n = n + np.eye(len(n)) * 1e-12 * np.real(np.trace(n))  # a lossless, noiseless corner stays solvable
     _, vecs = linalg.eigh(s, n)
     u = vecs[:, -1]
@@ -70,6 +71,8 @@ def best_phases(objective, amplitudes: np.ndarray, starts: list[np.ndarray], *, 
 
     def cost(phi):
         return -objective(u_of(phi))
+
+    from scipy import optimize  # slow to import: here, when needed
 
     rng = np.random.default_rng(seed)
     trials = [np.angle(s[1:] * np.conj(s[0])) for s in starts]

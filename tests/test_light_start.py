@@ -1,0 +1,70 @@
+"""A light start: what the command line and ``import snrgain`` load and change (issue 25)."""
+
+import subprocess
+import sys
+
+from tests.conftest import REPO, SCENARIOS
+
+SLOW_TO_IMPORT = ("scipy.integrate", "scipy.special", "scipy.interpolate", "healpy", "matplotlib", "pyproj")
+
+
+def _loaded_after(*commands) -> list[list[str]]:
+    """In a fresh interpreter, run each command line through click's runner; the slow libraries loaded after each."""
+    code = "import sys\nfrom click.testing import CliRunner\nfrom snrgain.cli.main import cli\n"
+    for args in commands:
+        code += (
+            f"r = CliRunner().invoke(cli, {list(args)!r})\n"
+            "assert r.exit_code == 0, r.output\n"
+            f"print(sorted(m for m in {SLOW_TO_IMPORT!r} if m in sys.modules))\n"
+        )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO).stdout
+    return [eval(line) for line in out.strip().splitlines()]
+
+
+def test_help_and_check_load_no_slow_library():
+    # Targets given by bearing: --help and check need none of them.  A target given by place needs its geodesic
+    # (pyproj), and nothing else.
+    help_, by_bearing, by_place = _loaded_after(
+        ["--help"],
+        ["check", str(SCENARIOS / "wren-corner.toml")],
+        ["check", str(SCENARIOS / "alder-hollow.toml")],
+    )
+    assert help_ == [] and by_bearing == []
+    assert by_place == ["pyproj"]
+
+
+def test_import_snrgain_changes_no_process_setting():
+    # The allocator's tuning (glibc mallopt) is process-wide: importing the library must not do it; the command
+    # line does it once.
+    code = (
+        "import snrgain, snrgain.allocator as a\n"
+        "snrgain.load  # a lazy name, loading the scenario machinery\n"
+        "print(a._done)\n"
+        "import snrgain.cli.main as m, sys\n"
+        "print(a._done)\n"
+        "sys.argv = ['snrgain', '--version']\n"
+        "try:\n"
+        "    m.main()\n"
+        "except SystemExit:\n"
+        "    pass\n"
+        "print(a._done or sys.platform != 'linux')\n"
+    )
+    env_free = {k: v for k, v in __import__("os").environ.items() if k != "SNRGAIN_KEEP_MALLOC"}
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO, env=env_free
+    ).stdout.split()
+    assert out[:2] == ["False", "False"]
+    assert out[-1] == "True"
+
+
+def test_healpy_loads_without_pyplot_for_the_sky():
+    # The storm sky needs healpy's pixel functions only: matplotlib.pyplot stays unloaded.
+    code = (
+        "import sys\n"
+        "from noisemodels import storms\n"
+        "hp = storms.healpy_module()\n"
+        "assert hp.nside2npix(4) == 192 and hp.get_interp_weights(4, 0.5, 0.5)[0].shape == (4,)\n"
+        "print('matplotlib.pyplot' in sys.modules, 'matplotlib' in sys.modules)\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO).stdout
+    assert out.split() == ["False", "False"]
