@@ -40,7 +40,8 @@ RANDOM_STARTS = 12
 def quadratic_form(rv, rh, weights=None) -> np.ndarray:
     """C = sum_d W_d (r_v r_v^H + r_h r_h^H) for element responses (N, D) and direction weights (D,)."""
     w = np.ones(rv.shape[1]) if weights is None else np.asarray(weights, dtype=float)
-    return (rv * w) @ rv.conj().T + (rh * w) @ rh.conj().T
+    # einsum, not matmul: N x N from a few thousand directions must not start multithreaded BLAS (slow under load)
+    return np.einsum("id,jd->ij", rv * w, rv.conj()) + np.einsum("id,jd->ij", rh * w, rh.conj())
 
 
 def ratio(u: np.ndarray, s: np.ndarray, n: np.ndarray) -> float:
