@@ -45,8 +45,7 @@ from __future__ import annotations
 
 import numpy as np
 
-EPS0_F_PER_M = 8.8541878128e-12
-C_M_PER_S = 299_792_458.0
+from noisemodels.constants import C_M_PER_S, EPS0_F_PER_M
 
 
 def complex_permittivity(freq_hz: float, permittivity: float, conductivity_s_per_m: float) -> complex:

@@ -18,11 +18,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from noisemodels.constants import BOLTZMANN_J_PER_K  # noqa: F401  (also imported from here by snrgain)
+
 T0_K = 290.0
 """Reference temperature of P.372 [K]."""
-
-BOLTZMANN_J_PER_K = 1.380649e-23
-"""Boltzmann constant [J/K] (exact in the 2019 SI)."""
 
 DECILE_Z = 1.282
 """Standard-normal deviate of the 10 % and 90 % points, used by [1] Section 8."""

@@ -68,3 +68,28 @@ def test_healpy_loads_without_pyplot_for_the_sky():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO).stdout
     assert out.split() == ["False", "False"]
+
+
+def test_physical_constants_are_scipys_and_written_once():
+    # One source: the values equal scipy.constants' (CODATA 2022) to the last digit, and no other module
+    # writes out epsilon_0, mu_0, c or k.
+    import re
+
+    import scipy.constants as sc
+
+    from noisemodels import constants
+    from snrgain import ground
+
+    assert constants.C_M_PER_S == sc.c
+    assert constants.EPS0_F_PER_M == sc.epsilon_0
+    assert constants.MU0_H_PER_M == sc.mu_0
+    assert constants.BOLTZMANN_J_PER_K == sc.k
+    assert ground.EPS0_F_PER_M is constants.EPS0_F_PER_M and ground.ETA0_OHM == sc.mu_0 * sc.c
+    literal = re.compile(r"8\.854187|1\.256637|299_?792_?458|2\.99792458e8|1\.380649e-23")
+    writers = [
+        str(p.relative_to(REPO))
+        for folder in ("snrgain", "noisemodels")
+        for p in sorted((REPO / folder).rglob("*.py"))
+        if literal.search(p.read_text())
+    ]
+    assert writers == ["noisemodels/constants.py"]
