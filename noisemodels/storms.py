@@ -43,7 +43,7 @@ import numpy as np
 from noisemodels import p372, solar
 from noisemodels.hops import EARTH_RADIUS_M, fewest_hops, hop_elevation_rad
 from noisemodels.sky import SkyComponent, normalised_component
-from noisemodels.sphere import Directions, to_healpy_angles
+from noisemodels.sphere import Directions, direction_to_pixel, interpolation_weights, to_healpy_angles, upper_hemisphere
 
 MIN_ELEVATION_RAD = np.radians(3.0)
 NIGHT_LOSS_DB_PER_HOP = 1.0
@@ -262,68 +262,38 @@ def arrival_samples(
     return az_sub.ravel(), el_sub.ravel(), p_sub.ravel()
 
 
-def healpy_module():
-    """healpy, imported on first use without its plotting half.
-
-    healpy's package imports its map-plotting functions, and with them matplotlib.pyplot (half a second),
-    whenever matplotlib is installed; the sky machinery needs only its pixel functions.  When matplotlib is not
-    loaded yet, it is hidden for the duration of the import, so healpy loads its pixel functions alone
-    (``healpy.visufunc`` can still be imported explicitly later).  When matplotlib is already loaded (figures),
-    healpy is imported as usual.
-    """
-    import sys
-
-    hp = sys.modules.get("healpy")
-    if hp is not None:
-        return hp
-    if "matplotlib" in sys.modules:
-        import healpy
-
-        return healpy
-    sys.modules["matplotlib"] = None  # makes "import matplotlib" fail inside healpy's __init__
-    try:
-        import healpy
-    finally:
-        if sys.modules.get("matplotlib", 0) is None:
-            del sys.modules["matplotlib"]
-    return healpy
-
-
 def deposit(directions: Directions, azimuth_rad, elevation_rad, power):
     """Spread sample powers onto a HEALPix direction set by bilinear weights; returns power per pixel."""
-    hp = healpy_module()
-
     nside = directions.nside
     if nside is None:
         raise ValueError("deposit needs a HEALPix direction set (upper_hemisphere)")
     theta, phi = to_healpy_angles(azimuth_rad, elevation_rad)
-    pix, w = hp.get_interp_weights(nside, theta, phi)
-    full = np.bincount(pix.ravel(), weights=(w * power[None, :]).ravel(), minlength=hp.nside2npix(nside))
-    # Map full-sphere pixel indices onto the upper-hemisphere subset.
-    up_pix = hp.ang2pix(nside, *to_healpy_angles(directions.azimuth_rad, directions.elevation_rad))
-    return full[up_pix]
+    pix, w = interpolation_weights(nside, theta, phi)
+    full = np.bincount(pix.ravel(), weights=(w * power[None, :]).ravel(), minlength=12 * nside * nside)
+    return full[_up_pixels(directions)]
 
 
 @lru_cache(maxsize=8)
 def _deposit_weights(key: tuple, nside: int):
     """The bilinear weights that spread the grid's cells onto the full HEALPix sphere, summed per (pixel, cell)
     pair: (pixel, cell, weight) flat arrays and the number of pixels.  They depend on the geometry only."""
-    hp = healpy_module()
     geom = path_geometry(*key)
     az_sub = geom.sub_azimuth_rad()
     el_sub = np.broadcast_to(geom.sub_elevation_rad[..., None], az_sub.shape)
-    pix, w = hp.get_interp_weights(nside, *to_healpy_angles(az_sub.ravel(), el_sub.ravel()))
+    pix, w = interpolation_weights(nside, *to_healpy_angles(az_sub.ravel(), el_sub.ravel()))
     ncell = geom.bearing_deg.size
     per_cell = SUB_DISTANCE * SUB_BEARING
     cell = np.broadcast_to(np.arange(az_sub.size) // per_cell, pix.shape)
     pair, inverse = np.unique(pix.astype(np.int64).ravel() * ncell + cell.ravel(), return_inverse=True)
     weight = np.bincount(inverse.ravel(), weights=w.ravel() / per_cell)
-    return pair // ncell, pair % ncell, weight, hp.nside2npix(nside)
+    return pair // ncell, pair % ncell, weight, 12 * nside * nside
 
 
 def _up_pixels(directions: Directions) -> np.ndarray:
-    hp = healpy_module()
-    return hp.ang2pix(directions.nside, *to_healpy_angles(directions.azimuth_rad, directions.elevation_rad))
+    """The full-sphere (RING) pixel of each direction of a HEALPix direction set."""
+    if directions is upper_hemisphere(directions.nside):
+        return np.arange(directions.size)  # built ring by ring from the north pole: the first pixels, in order
+    return direction_to_pixel(directions.nside, directions.azimuth_rad, directions.elevation_rad)
 
 
 def storm_component(

@@ -58,11 +58,11 @@ def test_import_snrgain_changes_no_process_setting():
 
 
 def test_healpy_loads_without_pyplot_for_the_sky():
-    # The storm sky needs healpy's pixel functions only: matplotlib.pyplot stays unloaded.
+    # The sky helpers need healpy's pixel functions only: matplotlib.pyplot stays unloaded.
     code = (
         "import sys\n"
-        "from noisemodels import storms\n"
-        "hp = storms.healpy_module()\n"
+        "from noisemodels import sphere\n"
+        "hp = sphere.healpy()\n"
         "assert hp.nside2npix(4) == 192 and hp.get_interp_weights(4, 0.5, 0.5)[0].shape == (4,)\n"
         "print('matplotlib.pyplot' in sys.modules, 'matplotlib' in sys.modules)\n"
     )

@@ -89,7 +89,7 @@ def test_block_table_blends_like_the_hourly_call():
 
 def _reference_storm_weights(lat, lon, *, month, utc_hour, freq_hz, level, grid, layer_height_m=250e3):
     """The storm model's sky for one hour, computed from scratch (module docstring of noisemodels.storms):
-    geodesics, P.372 map, hops, absorption and the healpy deposit, nothing memoised."""
+    geodesics, P.372 map, hops, absorption and healpy's deposit, nothing memoised."""
     from pyproj import Geod
 
     from noisemodels import solar
@@ -125,7 +125,12 @@ def _reference_storm_weights(lat, lon, *, month, utc_hour, freq_hz, level, grid,
         np.broadcast_to(el_sub[..., None], shape).ravel(),
         np.broadcast_to((power / (ns * nb))[..., None, None], shape).ravel(),
     )
-    per_pixel = storms.deposit(grid, *samples)
+    # The deposit with healpy's own interpolation weights and pixel lookup (independent of sphere.py's).
+    import healpy as hp
+
+    pix, w = hp.get_interp_weights(grid.nside, *sphere.to_healpy_angles(samples[0], samples[1]))
+    full = np.bincount(pix.ravel(), weights=(w * samples[2][None, :]).ravel(), minlength=hp.nside2npix(grid.nside))
+    per_pixel = full[hp.ang2pix(grid.nside, *sphere.to_healpy_angles(grid.azimuth_rad, grid.elevation_rad))]
     return sky.normalised_component("ref", "atmospheric", grid, per_pixel / grid.solid_angle_sr, level).weight_k_sr
 
 
@@ -170,3 +175,22 @@ def test_missing_data_still_fails_clearly(tmp_path, monkeypatch):
             directions=grid,
             data_dir=tmp_path,
         )
+
+
+@pytest.mark.parametrize("nside", [1, 2, 8, 32, 128])
+def test_interpolation_weights_are_healpys(nside):
+    # The numpy bilinear weights against healpy's get_interp_weights: the same four pixels in the same order,
+    # weights equal to rounding, over the whole sphere, at both poles, on the rings and at the pixel centres.
+    hp = pytest.importorskip("healpy")
+    rng = np.random.default_rng(nside)
+    centre_theta, centre_phi = hp.pix2ang(nside, np.arange(hp.nside2npix(nside)))
+    theta = np.concatenate(
+        [rng.uniform(0, np.pi, 5000), np.arccos(rng.uniform(0.995, 1, 500)), np.arccos(-rng.uniform(0.995, 1, 500))]
+        + [[0.0, np.pi, np.pi / 2], centre_theta]
+    )
+    phi = np.concatenate([rng.uniform(0, 2 * np.pi, 6000), [0.0, 1.0, 6.28], centre_phi])
+    pix, w = sphere.interpolation_weights(nside, theta, phi)
+    pix_hp, w_hp = hp.get_interp_weights(nside, theta, phi)
+    np.testing.assert_array_equal(pix, pix_hp)
+    np.testing.assert_allclose(w, w_hp, rtol=0, atol=1e-12)
+    np.testing.assert_allclose(w.sum(axis=0), 1.0, atol=1e-12)
