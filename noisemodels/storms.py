@@ -62,9 +62,13 @@ def noon_absorption_db(freq_mhz, elevation_rad):
 
 def hop_absorption_db(freq_mhz, elevation_rad, solar_zenith_rad):
     """Absorption of one hop [dB] for the sun's zenith angle at the reflection point."""
+    return _hop_loss_db(noon_absorption_db(freq_mhz, elevation_rad), solar_zenith_rad)
+
+
+def _hop_loss_db(noon_db, solar_zenith_rad):
+    """Absorption of one hop [dB] from the noon absorption [dB] and the sun's zenith angle [rad]."""
     c = np.clip(np.cos(0.881 * np.asarray(solar_zenith_rad)), 0.0, None)
-    day = noon_absorption_db(freq_mhz, elevation_rad) * c**1.3
-    return NIGHT_LOSS_DB_PER_HOP + day
+    return NIGHT_LOSS_DB_PER_HOP + noon_db * c**1.3
 
 
 def _hops_and_elevation(d_m, layer_height_m):
@@ -87,8 +91,9 @@ class PathGeometry:
     bearing_deg, distance_m : cell centres [deg], [m]
     latitude_deg, longitude_deg : where each cell lies [deg] (WGS84 geodesics from the site)
     hops, elevation_rad : the fewest equal hops and the arrival elevation [rad]
-    reflection_lat_rad, reflection_lon_rad : per hop i = 1..max(hops), the i-th reflection point of every
-        cell's path, at the fraction (2i - 1) / (2 n) of it [rad] (meaningful where hops >= i)
+    reflection_cells : per hop i = 1..max(hops), the cells (flat indices) whose paths have an i-th hop
+    reflection_lat_rad, reflection_lon_rad : per hop i, the i-th reflection point of those cells' paths, at
+        the fraction (2i - 1) / (2 n) of the path [rad]
     spreading_per_m : 1 / (R sin(d / R)) [1/m]
     sub_elevation_rad : arrival elevations of the SUB_DISTANCE sub-samples across each cell [rad]
     """
@@ -100,6 +105,7 @@ class PathGeometry:
     longitude_deg: np.ndarray
     hops: np.ndarray
     elevation_rad: np.ndarray
+    reflection_cells: tuple[np.ndarray, ...]
     reflection_lat_rad: tuple[np.ndarray, ...]
     reflection_lon_rad: tuple[np.ndarray, ...]
     spreading_per_m: np.ndarray
@@ -141,10 +147,12 @@ def path_geometry(
     lat0 = np.full(b.size, site_lat_deg)
     lon2, lat2, _ = geod.fwd(lon0, lat0, b.ravel(), d.ravel())
     n, el = _hops_and_elevation(d, layer_height_m)
-    ref_lat, ref_lon = [], []
+    ref_cells, ref_lat, ref_lon = [], [], []
     for i in range(1, int(n.max()) + 1):
-        frac = (2 * i - 1) / (2.0 * n)
-        lo, la, _ = geod.fwd(lon0, lat0, b.ravel(), (d * frac).ravel())
+        cells = np.flatnonzero(n >= i)
+        frac = (2 * i - 1) / (2.0 * n.ravel()[cells])
+        lo, la, _ = geod.fwd(lon0[cells], lat0[cells], b.ravel()[cells], d.ravel()[cells] * frac)
+        ref_cells.append(cells)
         ref_lat.append(np.radians(la))
         ref_lon.append(np.radians(lo))
     sub_d = (np.arange(SUB_DISTANCE) + 0.5) / SUB_DISTANCE - 0.5
@@ -158,12 +166,25 @@ def path_geometry(
         longitude_deg=lon2.reshape(b.shape),
         hops=n,
         elevation_rad=el,
+        reflection_cells=tuple(ref_cells),
         reflection_lat_rad=tuple(ref_lat),
         reflection_lon_rad=tuple(ref_lon),
         spreading_per_m=1.0 / (EARTH_RADIUS_M * np.sin(d / EARTH_RADIUS_M)),
         sub_elevation_rad=el_sub,
     )
-    for arr in (*ref_lat, *ref_lon, b, d, out.latitude_deg, out.longitude_deg, n, el, out.spreading_per_m, el_sub):
+    for arr in (
+        *ref_cells,
+        *ref_lat,
+        *ref_lon,
+        b,
+        d,
+        out.latitude_deg,
+        out.longitude_deg,
+        n,
+        el,
+        out.spreading_per_m,
+        el_sub,
+    ):
         arr.setflags(write=False)
     return out
 
@@ -202,6 +223,14 @@ def p372_blocks(geom: PathGeometry, *, month: int, freq_hz: float, data_dir=None
     return _p372_blocks_cached(geom.key, int(month), float(freq_hz), str(path), mtime)
 
 
+@lru_cache(maxsize=16)
+def _noon_loss_db(key: tuple, freq_mhz: float) -> np.ndarray:
+    """noon_absorption_db at each cell's arrival elevation (it does not depend on the hour)."""
+    out = noon_absorption_db(freq_mhz, path_geometry(*key).elevation_rad)
+    out.setflags(write=False)
+    return out
+
+
 def cell_power(
     geom: PathGeometry, *, month: int, utc_hour: float, freq_hz: float, data_dir=None, sources=None
 ) -> np.ndarray:
@@ -211,16 +240,16 @@ def cell_power(
         density = 10.0 ** (fa / 10.0)
     else:
         density = np.asarray(sources(geom.latitude_deg, geom.longitude_deg), dtype=float)
-    n, el = geom.hops, geom.elevation_rad
+    n = geom.hops
     f_mhz = freq_hz / 1e6
-    # Absorption at each hop's reflection point: fractions (2i - 1) / (2n) of the path.
+    noon = _noon_loss_db(geom.key, f_mhz).ravel()
+    # Absorption at each hop's reflection point (fractions (2i - 1) / (2n) of the path), where there is one.
     doy = solar.mid_month_day_of_year(month)
-    loss_db = np.zeros(n.shape)
-    for i, (la, lo) in enumerate(zip(geom.reflection_lat_rad, geom.reflection_lon_rad), start=1):
-        active = n >= i
+    loss = np.zeros(n.size)
+    for cells, la, lo in zip(geom.reflection_cells, geom.reflection_lat_rad, geom.reflection_lon_rad):
         chi = np.pi / 2 - solar.solar_elevation_rad(la, lo, day_of_year=doy, utc_hour=utc_hour)
-        hop = hop_absorption_db(f_mhz, el, chi.reshape(n.shape))
-        loss_db += np.where(active, hop, 0.0)
+        loss[cells] += _hop_loss_db(noon[cells], chi)
+    loss_db = loss.reshape(n.shape)
     loss_db += GROUND_LOSS_DB_PER_REFLECTION * (n - 1)
     return (
         density
