@@ -40,11 +40,14 @@ from pathlib import Path
 
 import numpy as np
 
-from noisemodels import p372, solar
+from noisemodels import p372, skycache, solar
 from noisemodels.hops import EARTH_RADIUS_M, fewest_hops, hop_elevation_rad
 from noisemodels.sky import SkyComponent, normalised_component
 from noisemodels.sphere import Directions, direction_to_pixel, interpolation_weights, to_healpy_angles, upper_hemisphere
 
+SKY_MODEL_VERSION = 1
+"""Part of the persistent cache's key (noisemodels.skycache): bump it when a change to this module or to the
+P.372 evaluation changes the maps it computes, so that no stored map outlives the code that made it."""
 MIN_ELEVATION_RAD = np.radians(3.0)
 NIGHT_LOSS_DB_PER_HOP = 1.0
 GROUND_LOSS_DB_PER_REFLECTION = 3.0
@@ -325,6 +328,37 @@ def _up_pixels(directions: Directions) -> np.ndarray:
     return direction_to_pixel(directions.nside, directions.azimuth_rad, directions.elevation_rad)
 
 
+def _disk_key(grid, *, month, utc_hour, freq_hz, nside, data_dir) -> dict | None:
+    """Every input of a storm map, for the persistent cache: the grid, the hour, the model's constants and the
+    P.372 coefficient file (path, size and modification time); None when that file cannot be found (the
+    computation then raises its clear error)."""
+    from noisemodels import p372_maps
+
+    try:
+        path = p372_maps.month_file(p372_maps.resolve_data_dir(data_dir), month).resolve()
+        st = path.stat()
+    except (OSError, ValueError):
+        return None
+    return {
+        "version": SKY_MODEL_VERSION,
+        "grid": [float(x) for x in grid],
+        "month": int(month),
+        "utc_hour": float(utc_hour),
+        "freq_hz": float(freq_hz),
+        "nside": int(nside),
+        "constants": [
+            float(MIN_ELEVATION_RAD),
+            NIGHT_LOSS_DB_PER_HOP,
+            GROUND_LOSS_DB_PER_REFLECTION,
+            D_REGION_HEIGHT_M,
+            SUB_DISTANCE,
+            SUB_BEARING,
+            EARTH_RADIUS_M,
+        ],
+        "p372": [str(path), st.st_size, st.st_mtime_ns],
+    }
+
+
 def storm_component(
     site_lat_deg: float,
     site_lon_deg: float,
@@ -343,15 +377,26 @@ def storm_component(
 
     The geometry of the paths, the P.372 maps of the month's six time blocks at the source cells and the
     weights that spread the cells over the HEALPix pixels are memoised, so a night of hours at one site costs
-    the hour's absorption and one weighted sum each.
+    the hour's absorption and one weighted sum each.  On the upper hemisphere and with P.372's sources, the
+    map is also kept in the persistent cache (:mod:`noisemodels.skycache`), keyed by every input.
     """
     if directions.nside is None:
         raise ValueError("deposit needs a HEALPix direction set (upper_hemisphere)")
-    geom = _geometry(site_lat_deg, site_lon_deg, layer_height_m, 3.0, 100e3, 12_000e3)
-    power = cell_power(geom, month=month, utc_hour=utc_hour, freq_hz=freq_hz, data_dir=data_dir, sources=sources)
-    pixel, cell, weight, npix = _deposit_weights(geom.key, int(directions.nside))
-    full = np.bincount(pixel, weights=weight * power.ravel()[cell], minlength=npix)
-    per_pixel = full[_up_pixels(directions)]
+    grid = (site_lat_deg, site_lon_deg, layer_height_m, 3.0, 100e3, 12_000e3)
+    key = None
+    if sources is None and directions is upper_hemisphere(directions.nside):
+        key = _disk_key(
+            grid, month=month, utc_hour=utc_hour, freq_hz=freq_hz, nside=directions.nside, data_dir=data_dir
+        )
+    per_pixel = skycache.load("storms", key) if key is not None else None
+    if per_pixel is None or per_pixel.shape != (directions.size,):
+        geom = _geometry(*grid)
+        power = cell_power(geom, month=month, utc_hour=utc_hour, freq_hz=freq_hz, data_dir=data_dir, sources=sources)
+        pixel, cell, weight, npix = _deposit_weights(geom.key, int(directions.nside))
+        full = np.bincount(pixel, weights=weight * power.ravel()[cell], minlength=npix)
+        per_pixel = full[_up_pixels(directions)]
+        if key is not None:
+            skycache.store("storms", key, per_pixel)
     if not np.any(per_pixel > 0):
         raise ValueError("the storm model found no path to the site; use a uniform or sector arrival instead")
     return normalised_component(name, "atmospheric", directions, per_pixel / directions.solid_angle_sr, level)

@@ -194,3 +194,105 @@ def test_interpolation_weights_are_healpys(nside):
     np.testing.assert_array_equal(pix, pix_hp)
     np.testing.assert_allclose(w, w_hp, rtol=0, atol=1e-12)
     np.testing.assert_allclose(w.sum(axis=0), 1.0, atol=1e-12)
+
+
+# -- the persistent cache ----------------------------------------------------------------------------------------
+
+
+def _clear_memory():
+    for f in (storms.path_geometry, storms._deposit_weights, storms._p372_blocks_cached, storms._noon_loss_db):
+        f.cache_clear()
+
+
+def _storm(hour=3.0, data_dir=P372_DIR):
+    return storms.storm_component(
+        43.15,
+        -89.6,
+        month=11,
+        utc_hour=hour,
+        freq_hz=1.83e6,
+        level=p372.NoiseLevel(55.0, 8.0, 6.0),
+        directions=sphere.upper_hemisphere(8),
+        data_dir=data_dir,
+    )
+
+
+@pytest.fixture
+def cache_dir(tmp_path, monkeypatch):
+    from noisemodels import skycache
+
+    monkeypatch.setenv(skycache.ENV_DIR, str(tmp_path))
+    monkeypatch.delenv(skycache.ENV_OFF, raising=False)
+    monkeypatch.delenv(skycache.ENV_MAX_MB, raising=False)
+    _clear_memory()
+    return skycache.folder()
+
+
+def test_a_warm_disk_cache_gives_the_same_map_without_computing(cache_dir, monkeypatch):
+    first = _storm().weight_k_sr
+    files = sorted(cache_dir.glob("storms-*.npy"))
+    assert len(files) == 1 and not list(cache_dir.glob(".tmp-*"))
+    _clear_memory()
+
+    def no_geometry(*a, **k):
+        raise AssertionError("the storm geometry was recomputed")
+
+    real = storms.path_geometry
+    monkeypatch.setattr(storms, "path_geometry", no_geometry)
+    np.testing.assert_array_equal(_storm().weight_k_sr, first)
+    # Another hour is another entry (and is computed).
+    monkeypatch.setattr(storms, "path_geometry", real)
+    assert not np.array_equal(_storm(hour=15.0).weight_k_sr, first)
+    assert len(list(cache_dir.glob("storms-*.npy"))) == 2
+
+
+def test_cache_key_holds_the_data_file(cache_dir, tmp_path_factory):
+    # A changed coefficient file (here: a copy elsewhere, then touched) is another key: no stale map.
+    import os
+    import shutil
+
+    copy = tmp_path_factory.mktemp("p372")
+    shutil.copy(P372_DIR / "COEFF11W.txt", copy / "COEFF11W.txt")
+    _storm(data_dir=copy)
+    st = (copy / "COEFF11W.txt").stat()
+    os.utime(copy / "COEFF11W.txt", ns=(st.st_atime_ns, st.st_mtime_ns + 10**9))
+    _storm(data_dir=copy)
+    assert len(list(cache_dir.glob("storms-*.npy"))) == 2
+
+
+def test_opt_out_and_damaged_entries(cache_dir, monkeypatch):
+    from noisemodels import skycache
+
+    monkeypatch.setenv(skycache.ENV_OFF, "1")
+    off = _storm().weight_k_sr
+    assert not cache_dir.exists() or not list(cache_dir.iterdir())
+    monkeypatch.setenv(skycache.ENV_OFF, "0")
+    _storm()
+    (entry,) = cache_dir.glob("storms-*.npy")
+    entry.write_bytes(b"\x93NUMPY garbage")  # a damaged entry is a miss, recomputed and replaced
+    _clear_memory()
+    np.testing.assert_array_equal(_storm().weight_k_sr, off)
+    assert np.load(entry).shape == (sphere.upper_hemisphere(8).size,)
+
+
+def test_size_bound_removes_the_least_recently_used(cache_dir, monkeypatch):
+    import os
+
+    from noisemodels import skycache
+
+    monkeypatch.setenv(skycache.ENV_MAX_MB, "0.012")  # room for two entries of 640 pixels (5.2 kB each)
+    paths = []
+    for i in range(4):
+        arr = np.full(640, float(i))
+        skycache.store("test", {"i": i}, arr)
+        paths.append(cache_dir / skycache.key_name("test", {"i": i}))
+        os.utime(paths[-1], (1e9 + i, 1e9 + i))  # distinct times, oldest first
+        if i == 1:
+            assert skycache.load("test", {"i": 0}) is not None  # a hit makes entry 0 the most recent
+            os.utime(paths[0], (1e9 + 10, 1e9 + 10))
+    skycache.trim()
+    left = sorted(p.name for p in cache_dir.glob("*.npy"))
+    assert left == sorted([paths[0].name, paths[3].name])
+    assert sum(p.stat().st_size for p in cache_dir.glob("*.npy")) <= 12_000
+    np.testing.assert_array_equal(skycache.load("test", {"i": 3}), np.full(640, 3.0))
+    assert skycache.load("test", {"i": 1}) is None
