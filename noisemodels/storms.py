@@ -206,9 +206,12 @@ def _geometry(site_lat_deg, site_lon_deg, layer_height_m, bearing_step_deg, dist
 @lru_cache(maxsize=16)
 def _p372_blocks_cached(key, month, freq_hz, path_str, mtime):
     geom = path_geometry(*key)
-    return p372.atmospheric_blocks(
+    out = p372.atmospheric_blocks(
         geom.latitude_deg, geom.longitude_deg, month=month, freq_hz=freq_hz, data_dir=Path(path_str).parent
     )
+    for arr in (out.fa_db, out.du_db, out.dl_db, out.longitude_deg):
+        arr.setflags(write=False)
+    return out
 
 
 def p372_blocks(geom: PathGeometry, *, month: int, freq_hz: float, data_dir=None) -> p372.BlockLevels:
