@@ -71,10 +71,38 @@ def healpy():
 
 
 def direction_to_pixel(nside: int, azimuth_rad, elevation_rad):
-    """HEALPix pixel index (RING order) holding a direction."""
-    hp = healpy()
+    """HEALPix pixel index (RING order) holding a direction (numpy; the same pixels as healpy's ang2pix).
+
+    The RING scheme's closed form (Gorski et al. 2005, Section 4): in the equatorial belt (|z| <= 2/3) the
+    pixel follows from the two families of boundary lines through the direction; in the polar caps from the
+    ring counted from the nearer pole and the position along it.
+    """
     theta, phi = to_healpy_angles(azimuth_rad, elevation_rad)
-    return hp.ang2pix(nside, theta, phi)
+    shape = np.shape(theta)
+    theta, phi = np.broadcast_arrays(np.atleast_1d(theta), np.atleast_1d(phi))
+    theta, phi = theta.ravel(), phi.ravel()
+    z = np.cos(theta)
+    za = np.abs(z)
+    tt = np.mod(phi, 2 * np.pi) / (np.pi / 2)  # in [0, 4)
+    # Equatorial belt.
+    t1 = nside * (0.5 + tt)
+    t2 = nside * z * 0.75
+    jp = np.floor(t1 - t2).astype(np.int64)  # index of the ascending edge line
+    jm = np.floor(t1 + t2).astype(np.int64)  # index of the descending edge line
+    ir = nside + 1 + jp - jm  # ring counted from z = 2/3, 1 .. 2 nside + 1
+    kshift = 1 - (ir & 1)
+    ip = np.mod((jp + jm - nside + kshift + 1) // 2, 4 * nside)
+    belt = 2 * nside * (nside - 1) + (ir - 1) * 4 * nside + ip
+    # Polar caps (near a pole, 3 (1 - |z|) from sin(theta) for accuracy).
+    tp = tt - np.floor(tt)
+    root = np.where(za > 0.99, nside * np.sin(theta) / np.sqrt((1.0 + za) / 3.0), nside * np.sqrt(3 * (1 - za)))
+    jp = np.floor(tp * root).astype(np.int64)
+    jm = np.floor((1.0 - tp) * root).astype(np.int64)
+    ir = jp + jm + 1  # ring counted from the nearer pole
+    ip = np.mod(np.floor(tt * ir).astype(np.int64), 4 * ir)
+    cap = np.where(z > 0, 2 * ir * (ir - 1) + ip, 12 * nside * nside - 2 * ir * (ir + 1) + ip)
+    pix = np.where(za <= 2.0 / 3.0, belt, cap)
+    return pix.reshape(shape) if shape else pix[0]
 
 
 def pixel_to_direction(nside: int, pixel):

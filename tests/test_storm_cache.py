@@ -296,3 +296,23 @@ def test_size_bound_removes_the_least_recently_used(cache_dir, monkeypatch):
     assert sum(p.stat().st_size for p in cache_dir.glob("*.npy")) <= 12_000
     np.testing.assert_array_equal(skycache.load("test", {"i": 3}), np.full(640, 3.0))
     assert skycache.load("test", {"i": 1}) is None
+
+
+@pytest.mark.parametrize("nside", [1, 4, 32, 1024])
+def test_direction_to_pixel_is_healpys_ang2pix(nside):
+    # The numpy RING-scheme lookup against healpy's ang2pix, poles and horizon included; the upper hemisphere's
+    # pixel centres are its first pixels in order (what the storm deposit relies on).
+    hp = pytest.importorskip("healpy")
+    rng = np.random.default_rng(nside)
+    az = rng.uniform(0, 2 * np.pi, 20000)
+    el = np.concatenate([np.arcsin(rng.uniform(-1, 1, 19000)), np.radians(90 - rng.uniform(0, 0.01, 1000))])
+    el[:3] = [np.pi / 2, -np.pi / 2, 0.0]
+    np.testing.assert_array_equal(
+        sphere.direction_to_pixel(nside, az, el), hp.ang2pix(nside, *sphere.to_healpy_angles(az, el))
+    )
+    assert sphere.direction_to_pixel(nside, 0.3, 0.2) == hp.ang2pix(nside, *sphere.to_healpy_angles(0.3, 0.2))
+    if nside <= 32:
+        g = sphere.upper_hemisphere(nside)
+        np.testing.assert_array_equal(
+            sphere.direction_to_pixel(nside, g.azimuth_rad, g.elevation_rad), np.arange(g.size)
+        )
