@@ -11,11 +11,22 @@ Reports
 - a fresh antenna plus its pattern on a 2 deg grid (8,280 directions) against PyNEC's NEC-2 solution and
   pattern of the same structure, for every family with an NEC counterpart (target: the 250 m Beverage
   at least 150x faster);
-- sweeps: 1,000 RDF designs, and a 10,000-design Beverage sweep through `snrgain sweep` in-process.
+- sweeps: 1,000 RDF designs, and a 10,000-design Beverage sweep through `snrgain sweep` in-process;
+- a realistic site (benchmarks/realistic-site.toml: 3 targets, 4 months x 14 hours, P.372 atmospheric noise
+  with the storm model, a placed source, 7 candidates of six families, a ground given as ranges): `snrgain
+  rank` of it, `snrgain check` of it and the start-up of `rank`, each as a ratio to a bare
+  `python -c "import numpy"`, side by side with the pattern-against-PyNEC ratios.
+
+    python benchmarks/bench.py --site     # only the realistic site and the PyNEC ratios (~1 min)
+
+The P.372 coefficient files are read from $SNRGAIN_P372_DIR, else from ../shared/data/p372 beside the project.
 """
 
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
 import time
 import tomllib
 from pathlib import Path
@@ -23,6 +34,16 @@ from pathlib import Path
 import numpy as np
 
 REPO = Path(__file__).resolve().parents[1]
+SITE = REPO / "benchmarks" / "realistic-site.toml"
+
+
+def p372_dir() -> Path | None:
+    """The P.372 coefficient folder: $SNRGAIN_P372_DIR, else ../shared/data/p372 beside the project."""
+    env = os.environ.get("SNRGAIN_P372_DIR")
+    for cand in ([Path(env)] if env else []) + [REPO.parent / "shared" / "data" / "p372"]:
+        if (cand / "COEFF01W.txt").exists():
+            return cand
+    return None
 
 
 def best_of(fn, n=5):
@@ -123,24 +144,24 @@ def main():
     steering_benchmarks(data)
     layout_benchmark()
 
-    p372_dir = REPO.parent / "shared" / "data" / "p372"
-    if (p372_dir / "COEFF07W.txt").exists():
+    p372_dir_ = p372_dir()
+    if p372_dir_ is not None:
         from noisemodels import p372, storms
 
         lat, lon = np.meshgrid(np.arange(-90, 90.1, 1.0), np.arange(-180, 180, 1.0), indexing="ij")
-        p372.atmospheric(0.0, 0.0, month=7, freq_hz=1.83e6, time_block=0, data_dir=p372_dir)  # read the file once
-        best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, time_block=5, data_dir=p372_dir))
+        p372.atmospheric(0.0, 0.0, month=7, freq_hz=1.83e6, time_block=0, data_dir=p372_dir_)  # read the file once
+        best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, time_block=5, data_dir=p372_dir_))
         print(
             f"\nP.372 atmospheric Fa on a 1 deg global grid ({lat.size} sites), one block and frequency: "
             f"{best * 1e3:.0f} ms (target well under 1 s)"
         )
-        best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, utc_hour=4.0, data_dir=p372_dir))
+        best, _ = best_of(lambda: p372.atmospheric(lat, lon, month=7, freq_hz=1.83e6, utc_hour=4.0, data_dir=p372_dir_))
         print(f"the same for a UTC hour (six blocks, interpolated): {best * 1e3:.0f} ms")
         grid = upper_hemisphere(32)
         lv = p372.NoiseLevel(60.0, 0.0, 0.0)
         best, _ = best_of(
             lambda: storms.storm_component(
-                41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv, directions=grid, data_dir=p372_dir
+                41.6, -72.35, month=7, utc_hour=4, freq_hz=1.83e6, level=lv, directions=grid, data_dir=p372_dir_
             ),
             n=3,
         )
@@ -491,8 +512,78 @@ def sweep_benchmarks():
         )
 
 
+def _best_subprocess(cmd, n=5, env=None):
+    """Best wall time of ``n`` runs of a command [s] (output discarded; a failure stops the benchmark)."""
+    times = []
+    for _ in range(n):
+        t = time.perf_counter()
+        subprocess.run(cmd, check=True, capture_output=True, env=env)
+        times.append(time.perf_counter() - t)
+    return min(times)
+
+
+def realistic_site():
+    """`snrgain rank` of the realistic site with no sky cache and with it warm, `report` and `figures` of it,
+    `check` of it and the start-up of `rank`, as ratios to a bare numpy import (subprocesses, best of several;
+    targets from issue 25: rank within 10x cold and 5x warm, report and figures within 1.5x of rank, check within
+    3x, rank's start-up within 4x)."""
+    import tempfile
+
+    data = p372_dir()
+    if data is None:
+        print("\n(P.372 data not found: set SNRGAIN_P372_DIR; the realistic site is skipped)")
+        return
+    py = sys.executable
+    cli = [py, "-m", "snrgain.cli.main"]
+    with tempfile.TemporaryDirectory() as tmp:
+        env = {**os.environ, "SNRGAIN_P372_DIR": str(data), "PYTHONPATH": str(REPO), "SNRGAIN_CACHE_DIR": tmp}
+        cold = {**env, "SNRGAIN_NO_CACHE": "1"}
+        t_np = _best_subprocess([py, "-c", "import numpy"], env=env)
+        t_help = _best_subprocess([*cli, "--help"], env=env)
+        t_check = _best_subprocess([*cli, "check", str(SITE)], env=env)
+        # What `rank` imports before it starts work: the command line and the pipeline's modules.
+        t_start = _best_subprocess(
+            [py, "-c", "import snrgain.cli.main, snrgain.pipeline, snrgain.scenario, snrgain.output"], env=env
+        )
+        t_cold = _best_subprocess([*cli, "rank", str(SITE)], n=3, env=cold)
+        subprocess.run([*cli, "rank", str(SITE)], check=True, capture_output=True, env=env)  # fills the cache
+        t_warm = _best_subprocess([*cli, "rank", str(SITE)], n=3, env=env)
+        html = Path(tmp) / "site.html"
+        t_report = _best_subprocess([*cli, "report", str(SITE), "-o", str(html), "--overwrite"], n=3, env=env)
+        figs = Path(tmp) / "figs"
+        figs.mkdir()
+        t_figs = _best_subprocess([*cli, "figures", str(SITE), "--dir", str(figs), "--overwrite"], n=3, env=env)
+    print(f"\nrealistic site ({SITE.name}), best of 5 (rank, report, figures: of 3), ratios to a bare numpy import:")
+    print(f"{'':<48}{'time [ms]':>10}{'ratio':>8}{'target':>9}")
+    rows = [
+        ("python -c 'import numpy'", t_np, None),
+        ("snrgain --help", t_help, None),
+        ("snrgain check", t_check, 3.0),
+        ("rank start-up (its imports)", t_start, 4.0),
+        ("snrgain rank, no sky cache", t_cold, 10.0),
+        ("snrgain rank, sky cache warm", t_warm, 5.0),
+        ("snrgain report (sky cache warm)", t_report, None),
+        ("snrgain figures (sky cache warm)", t_figs, None),
+    ]
+    for label, t, target in rows:
+        tgt = f"<= {target:g}x" if target else ""
+        print(f"{label:<48}{t * 1e3:>10.0f}{t / t_np:>7.1f}x{tgt:>9}")
+    print(
+        f"report / rank (warm) {t_report / t_warm:.2f}x, figures / rank (warm) {t_figs / t_warm:.2f}x "
+        "(target <= 1.5x each)"
+    )
+
+
 if __name__ == "__main__":
-    cold_start()
-    main()
-    nec_ratios()
-    sweep_benchmarks()
+    from snrgain.allocator import tune
+
+    tune()  # as the command line does
+    if "--site" in sys.argv[1:]:
+        realistic_site()
+        nec_ratios()
+    else:
+        cold_start()
+        main()
+        realistic_site()
+        nec_ratios()
+        sweep_benchmarks()

@@ -46,10 +46,8 @@ higher than about 0.05 wavelength is not modelled).
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import wofz
 
-EPS0_F_PER_M = 8.8541878128e-12
-C_M_PER_S = 299_792_458.0
+from noisemodels.constants import C_M_PER_S, EPS0_F_PER_M
 
 
 def complex_permittivity(freq_hz: float, permittivity: float, conductivity_s_per_m: float) -> complex:
@@ -75,6 +73,8 @@ def numerical_distance(r_m, freq_hz: float, n2: complex, polarisation: str = "ve
 
 def attenuation(w):
     """Norton's attenuation function F(w) = 1 - j sqrt(pi w) exp(-w) erfc(j sqrt(w)) (complex)."""
+    from scipy.special import wofz  # imported here: scipy.special is slow to import
+
     w = np.asarray(w, dtype=complex)
     s = np.sqrt(w)
     return 1.0 - 1j * np.sqrt(np.pi) * s * wofz(-s)

@@ -18,11 +18,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from noisemodels.constants import BOLTZMANN_J_PER_K  # noqa: F401  (also imported from here by snrgain)
+
 T0_K = 290.0
 """Reference temperature of P.372 [K]."""
-
-BOLTZMANN_J_PER_K = 1.380649e-23
-"""Boltzmann constant [J/K] (exact in the 2019 SI)."""
 
 DECILE_Z = 1.282
 """Standard-normal deviate of the 10 % and 90 % points, used by [1] Section 8."""
@@ -194,6 +193,21 @@ def combine_present(levels: list[NoiseLevel]) -> NoiseLevel:
     return combine(present)
 
 
+def _atmospheric_inputs(latitude_deg, longitude_deg, freq_hz):
+    """Checked (lat, lon [deg], f [MHz]) for the P.372 maps."""
+    from noisemodels import p372_maps as maps
+
+    f_mhz = _freq_mhz(freq_hz)
+    lo, hi = maps.FREQ_RANGE_HZ
+    if np.any(f_mhz * 1e6 < lo) or np.any(f_mhz * 1e6 > hi):
+        raise ValueError(f"freq_hz must lie between {lo:g} and {hi:g} Hz for P.372 atmospheric noise")
+    lat = np.asarray(latitude_deg, dtype=float)
+    lon = np.asarray(longitude_deg, dtype=float)
+    if np.any(np.abs(lat) > 90):
+        raise ValueError(f"latitude_deg must lie in [-90, 90], got {latitude_deg!r}")
+    return lat, lon, f_mhz
+
+
 def atmospheric(
     latitude_deg, longitude_deg, *, month: int, freq_hz, time_block=None, utc_hour=None, data_dir=None
 ) -> NoiseLevel:
@@ -228,25 +242,61 @@ def atmospheric(
 
     if (time_block is None) == (utc_hour is None):
         raise ValueError("give exactly one of time_block (0..5) or utc_hour")
-    f_mhz = _freq_mhz(freq_hz)
-    lo, hi = maps.FREQ_RANGE_HZ
-    if np.any(f_mhz * 1e6 < lo) or np.any(f_mhz * 1e6 > hi):
-        raise ValueError(f"freq_hz must lie between {lo:g} and {hi:g} Hz for P.372 atmospheric noise")
-    lat = np.asarray(latitude_deg, dtype=float)
-    lon = np.asarray(longitude_deg, dtype=float)
-    if np.any(np.abs(lat) > 90):
-        raise ValueError(f"latitude_deg must lie in [-90, 90], got {latitude_deg!r}")
+    if time_block is None:
+        blocks = atmospheric_blocks(latitude_deg, longitude_deg, month=month, freq_hz=freq_hz, data_dir=data_dir)
+        return blocks.at_utc_hour(utc_hour)
+    lat, lon, f_mhz = _atmospheric_inputs(latitude_deg, longitude_deg, freq_hz)
     coeffs = maps.load_month(month, data_dir)
-    lat_r, lon_r = np.radians(lat), np.radians(lon)
-    if time_block is not None:
-        b = np.asarray(time_block)
-        if not np.issubdtype(b.dtype, np.integer) or np.any((b < 0) | (b > 5)):
-            raise ValueError(f"time_block must be an integer 0..5, got {time_block!r}")
-        fa, du, dl = maps.block_values(coeffs, lat_r, lon_r, f_mhz, b)
-        return NoiseLevel(fa, du, dl)
-    lat_r, lon_r, f_b, hour = np.broadcast_arrays(lat_r, lon_r, f_mhz, np.asarray(utc_hour, dtype=float))
-    blocks = np.arange(6).reshape((6,) + (1,) * lat_r.ndim)
-    per_block = maps.block_values(coeffs, lat_r[None], lon_r[None], f_b[None], blocks)
-    lmt = maps.local_mean_time_h(hour, np.degrees(lon_r))
-    fa, du, dl = maps.interpolate_blocks(lmt, per_block)
+    b = np.asarray(time_block)
+    if not np.issubdtype(b.dtype, np.integer) or np.any((b < 0) | (b > 5)):
+        raise ValueError(f"time_block must be an integer 0..5, got {time_block!r}")
+    fa, du, dl = maps.block_values(coeffs, np.radians(lat), np.radians(lon), f_mhz, b)
     return NoiseLevel(fa, du, dl)
+
+
+@dataclass(frozen=True)
+class BlockLevels:
+    """P.372 atmospheric noise of the six time blocks at a set of places, before the blend in time.
+
+    Attributes
+    ----------
+    fa_db, du_db, dl_db : median and decile deviations, leading axis the blocks 0..5, then the places [dB]
+    longitude_deg : the places' longitudes, broadcast to their shape [deg] (for their local mean time)
+    """
+
+    fa_db: np.ndarray
+    du_db: np.ndarray
+    dl_db: np.ndarray
+    longitude_deg: np.ndarray
+
+    def at_utc_hour(self, utc_hour) -> NoiseLevel:
+        """The levels at a UTC hour (arrays broadcast with the places): blended in power between the block
+        centres at local mean time, as :func:`atmospheric` with ``utc_hour``."""
+        from noisemodels import p372_maps as maps
+
+        hour = np.asarray(utc_hour, dtype=float)
+        shape = np.broadcast_shapes(self.longitude_deg.shape, hour.shape)
+        pad = (1,) * (len(shape) - self.longitude_deg.ndim)
+        per_block = tuple(
+            np.broadcast_to(a.reshape((6,) + pad + a.shape[1:]), (6,) + shape)
+            for a in (self.fa_db, self.du_db, self.dl_db)
+        )
+        lmt = maps.local_mean_time_h(hour, self.longitude_deg)
+        return NoiseLevel(*maps.interpolate_blocks(lmt, per_block))
+
+
+def atmospheric_blocks(latitude_deg, longitude_deg, *, month: int, freq_hz, data_dir=None) -> BlockLevels:
+    """P.372 atmospheric noise at places for each of the six time blocks of a month, computed once.
+
+    The blocks do not depend on the hour: a caller that needs many hours of the same month (a sky over a
+    night) computes them once here and blends them with :meth:`BlockLevels.at_utc_hour` per hour.  Arguments
+    and errors as :func:`atmospheric`.
+    """
+    from noisemodels import p372_maps as maps
+
+    lat, lon, f_mhz = _atmospheric_inputs(latitude_deg, longitude_deg, freq_hz)
+    coeffs = maps.load_month(month, data_dir)
+    lat_r, lon_r, f_b = np.broadcast_arrays(np.radians(lat), np.radians(lon), f_mhz)
+    blocks = np.arange(6).reshape((6,) + (1,) * lat_r.ndim)
+    fa, du, dl = maps.block_values(coeffs, lat_r[None], lon_r[None], f_b[None], blocks)
+    return BlockLevels(fa, du, dl, np.degrees(lon_r))

@@ -169,20 +169,26 @@ def _horner(coeffs, u):
 def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     """Median atmospheric noise at 1 MHz, Fam1 [dB above kT0b], steps 1-2 (vectorised).
 
-    ``block`` broadcasts with the site arrays (integers 0..5).
+    ``block`` broadcasts with the site arrays (integers 0..5).  The 44 sines of a place do not depend on the
+    block, so they are computed once per place however many blocks are asked for; the sums over k and j are
+    einsum contractions (no multithreaded BLAS call, whose start-up dominates products this small).
     """
-    lat = np.asarray(lat_rad, dtype=float)
-    q = np.mod(np.asarray(lon_rad, dtype=float), 2 * np.pi) / 2.0
+    lat, q = np.broadcast_arrays(
+        np.asarray(lat_rad, dtype=float), np.mod(np.asarray(lon_rad, dtype=float), 2 * np.pi) / 2.0
+    )
     b = np.asarray(block, dtype=int)
-    lat, q, b = np.broadcast_arrays(lat, q, b)
-    sin_k = np.sin(q[..., None] * np.arange(1, 16))  # (..., 15)
-    p = lat + np.pi / 2
-    sin_j = np.sin(p[..., None] * np.arange(1, 30))  # (..., 29)
-    out = np.empty(lat.shape)
+    shape = np.broadcast_shapes(lat.shape, b.shape)
+    p = (lat + np.pi / 2).ravel()
+    sin_k = np.sin(q.ravel()[:, None] * np.arange(1, 16))  # (places, 15)
+    sin_j = np.sin(p[:, None] * np.arange(1, 30))  # (places, 29)
+    place = np.broadcast_to(np.arange(lat.size).reshape(lat.shape), shape)
+    b = np.broadcast_to(b, shape)
+    out = np.empty(shape)
     for blk in np.unique(b):
         sel = b == blk
-        z = sin_k[sel] @ c.fakp[blk, :15, :] + c.fakp[blk, 15, :]  # (n, 29)
-        out[sel] = np.einsum("nj,nj->n", z, sin_j[sel]) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * p[sel]
+        idx = place[sel]
+        z = np.einsum("nk,kj->nj", sin_k[idx], c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)
+        out[sel] = np.einsum("nj,nj->n", z, sin_j[idx]) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * p[idx]
     return out
 
 

@@ -43,17 +43,71 @@ def from_healpy_angles(theta_rad, phi_rad):
     return np.mod(np.asarray(phi_rad, dtype=float), 2 * np.pi), np.pi / 2 - np.asarray(theta_rad, dtype=float)
 
 
-def direction_to_pixel(nside: int, azimuth_rad, elevation_rad):
-    """HEALPix pixel index (RING order) holding a direction."""
-    import healpy as hp
+def healpy():
+    """healpy, imported on first use without its plotting half.
 
+    healpy's package imports its map-plotting functions, and with them matplotlib.pyplot (half a second),
+    whenever matplotlib is installed; these helpers need only its pixel functions.  When matplotlib is not
+    loaded yet, it is hidden for the duration of the import, so healpy loads its pixel functions alone
+    (``healpy.visufunc`` can still be imported explicitly later).  When matplotlib is already loaded (figures),
+    healpy is imported as usual.
+    """
+    import sys
+
+    hp = sys.modules.get("healpy")
+    if hp is not None:
+        return hp
+    if "matplotlib" in sys.modules:
+        import healpy as hp
+
+        return hp
+    sys.modules["matplotlib"] = None  # makes "import matplotlib" fail inside healpy's __init__
+    try:
+        import healpy as hp
+    finally:
+        if "matplotlib" in sys.modules and sys.modules["matplotlib"] is None:
+            del sys.modules["matplotlib"]
+    return hp
+
+
+def direction_to_pixel(nside: int, azimuth_rad, elevation_rad):
+    """HEALPix pixel index (RING order) holding a direction (numpy; the same pixels as healpy's ang2pix).
+
+    The RING scheme's closed form (Gorski et al. 2005, Section 4): in the equatorial belt (|z| <= 2/3) the
+    pixel follows from the two families of boundary lines through the direction; in the polar caps from the
+    ring counted from the nearer pole and the position along it.
+    """
     theta, phi = to_healpy_angles(azimuth_rad, elevation_rad)
-    return hp.ang2pix(nside, theta, phi)
+    shape = np.shape(theta)
+    theta, phi = np.broadcast_arrays(np.atleast_1d(theta), np.atleast_1d(phi))
+    theta, phi = theta.ravel(), phi.ravel()
+    z = np.cos(theta)
+    za = np.abs(z)
+    tt = np.mod(phi, 2 * np.pi) / (np.pi / 2)  # in [0, 4)
+    # Equatorial belt.
+    t1 = nside * (0.5 + tt)
+    t2 = nside * z * 0.75
+    jp = np.floor(t1 - t2).astype(np.int64)  # index of the ascending edge line
+    jm = np.floor(t1 + t2).astype(np.int64)  # index of the descending edge line
+    ir = nside + 1 + jp - jm  # ring counted from z = 2/3, 1 .. 2 nside + 1
+    kshift = 1 - (ir & 1)
+    ip = np.mod((jp + jm - nside + kshift + 1) // 2, 4 * nside)
+    belt = 2 * nside * (nside - 1) + (ir - 1) * 4 * nside + ip
+    # Polar caps (near a pole, 3 (1 - |z|) from sin(theta) for accuracy).
+    tp = tt - np.floor(tt)
+    root = np.where(za > 0.99, nside * np.sin(theta) / np.sqrt((1.0 + za) / 3.0), nside * np.sqrt(3 * (1 - za)))
+    jp = np.floor(tp * root).astype(np.int64)
+    jm = np.floor((1.0 - tp) * root).astype(np.int64)
+    ir = jp + jm + 1  # ring counted from the nearer pole
+    ip = np.mod(np.floor(tt * ir).astype(np.int64), 4 * ir)
+    cap = np.where(z > 0, 2 * ir * (ir - 1) + ip, 12 * nside * nside - 2 * ir * (ir + 1) + ip)
+    pix = np.where(za <= 2.0 / 3.0, belt, cap)
+    return pix.reshape(shape) if shape else pix[0]
 
 
 def pixel_to_direction(nside: int, pixel):
     """(azimuth, elevation) [rad] of a pixel centre (RING order)."""
-    import healpy as hp
+    hp = healpy()
 
     theta, phi = hp.pix2ang(nside, pixel)
     return from_healpy_angles(theta, phi)
@@ -99,6 +153,91 @@ def ring_pixels_upper(nside: int) -> tuple[np.ndarray, np.ndarray]:
         rings_z.append(np.full(j.size, z))
         rings_phi.append(phi)
     return np.concatenate(rings_z), np.concatenate(rings_phi)
+
+
+def _ring_info(nside: int, ring):
+    """(first pixel, pixels in the ring, theta [rad], shifted) of RING-scheme rings 1 .. 4 nside - 1.
+
+    Polar rings hold 4 i pixels (i counted from the nearer pole), equatorial ones 4 nside; pixel centres lie at
+    phi = (k + shifted / 2) 2 pi / (pixels in the ring) (Gorski et al. 2005, Section 4).
+    """
+    ring = np.asarray(ring, dtype=np.int64)
+    north, south = ring < nside, ring > 3 * nside
+    polar = north | south
+    i = np.where(south, 4 * nside - ring, ring)
+    npix = 12 * nside * nside
+    start = np.where(
+        north,
+        2 * i * (i - 1),
+        np.where(south, npix - 2 * i * (i + 1), 2 * nside * (nside - 1) + (ring - nside) * 4 * nside),
+    )
+    count = np.where(polar, 4 * i, 4 * nside)
+    tmp = i * i / (3.0 * nside * nside)  # 1 - |z| on a polar ring
+    theta = np.where(
+        polar,
+        np.arctan2(np.sqrt(np.clip(tmp * (2.0 - tmp), 0.0, None)), 1.0 - tmp),  # accurate near the poles
+        np.arccos(np.clip(4.0 / 3.0 - 2.0 * ring / (3.0 * nside), -1.0, 1.0)),
+    )
+    theta = np.where(south, np.pi - theta, theta)
+    shifted = polar | ((ring - nside) % 2 == 0)
+    return start, count, theta, shifted
+
+
+def _ring_neighbours(nside: int, ring, phi):
+    """The two pixels of a ring either side of phi, and their linear weights in phi."""
+    start, count, theta, shifted = _ring_info(nside, ring)
+    dphi = 2 * np.pi / count
+    half = 0.5 * shifted
+    k1 = np.floor(phi / dphi - half).astype(np.int64)
+    w = (phi - (k1 + half) * dphi) / dphi
+    k2 = k1 + 1
+    k1 = np.where(k1 < 0, k1 + count, k1)
+    k2 = np.where(k2 >= count, k2 - count, k2)
+    return start + k1, start + k2, 1.0 - w, w, theta
+
+
+def interpolation_weights(nside: int, theta_rad, phi_rad) -> tuple[np.ndarray, np.ndarray]:
+    """The four RING-scheme pixels around each direction and their bilinear weights, shapes (4, n).
+
+    Linear in phi between the two nearest pixel centres on the ring above and on the ring below, then linear
+    in theta between the rings; above the first ring (below the last) the four pixels of that ring share the
+    rest equally.  The same pixels and weights as healpy's ``get_interp_weights`` (a test compares them), in
+    numpy, so the sky machinery need not import healpy (and with it astropy) for them.
+
+    theta_rad : healpy's theta, the zenith angle [rad]; phi_rad : healpy's phi [rad] in [0, 2 pi)
+    """
+    theta = np.atleast_1d(np.asarray(theta_rad, dtype=float)).ravel()
+    phi = np.atleast_1d(np.asarray(phi_rad, dtype=float)).ravel()
+    z = np.cos(theta)
+    az = np.abs(z)
+    polar_ring = np.floor(nside * np.sqrt(3.0 * (1.0 - az))).astype(np.int64)
+    above = np.where(
+        az <= 2.0 / 3.0,
+        np.floor(nside * (2.0 - 1.5 * z)).astype(np.int64),
+        np.where(z > 0, polar_ring, 4 * nside - polar_ring - 1),
+    )  # the ring at or above each direction (0: above the first ring)
+    last = 4 * nside - 1
+    p0, p1, w0, w1, theta1 = _ring_neighbours(nside, np.clip(above, 1, last), phi)
+    p2, p3, w2, w3, theta2 = _ring_neighbours(nside, np.clip(above + 1, 1, last), phi)
+    npix = 12 * nside * nside
+    north, south = above == 0, above + 1 == 4 * nside
+    mid = ~(north | south)
+    t = np.where(mid, (theta - theta1) / np.where(mid, theta2 - theta1, 1.0), 0.0)
+    pix = np.stack([p0, p1, p2, p3])
+    wgt = np.stack([w0 * (1 - t), w1 * (1 - t), w2 * t, w3 * t])
+    if np.any(north):  # between the pole and the first ring: that ring's four pixels
+        tn = theta[north] / theta2[north]
+        fac = (1.0 - tn) * 0.25
+        wgt[:, north] = [fac, fac, w2[north] * tn + fac, w3[north] * tn + fac]
+        pix[0, north] = (p2[north] + 2) & 3
+        pix[1, north] = (p3[north] + 2) & 3
+    if np.any(south):  # between the last ring and the south pole
+        ts = (theta[south] - theta1[south]) / (np.pi - theta1[south])
+        fac = ts * 0.25
+        wgt[:, south] = [w0[south] * (1 - ts) + fac, w1[south] * (1 - ts) + fac, fac, fac]
+        pix[2, south] = ((p0[south] + 2) & 3) + npix - 4
+        pix[3, south] = ((p1[south] + 2) & 3) + npix - 4
+    return pix, wgt
 
 
 @lru_cache(maxsize=8)

@@ -35,13 +35,20 @@ P.372's reference monopole returns the site's own P.372 Fa.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+
 import numpy as np
 
-from noisemodels import p372, solar
+from noisemodels import p372, skycache, solar
 from noisemodels.hops import EARTH_RADIUS_M, fewest_hops, hop_elevation_rad
 from noisemodels.sky import SkyComponent, normalised_component
-from noisemodels.sphere import Directions, to_healpy_angles
+from noisemodels.sphere import Directions, direction_to_pixel, interpolation_weights, to_healpy_angles, upper_hemisphere
 
+SKY_MODEL_VERSION = 1
+"""Part of the persistent cache's key (noisemodels.skycache): bump it when a change to this module or to the
+P.372 evaluation changes the maps it computes, so that no stored map outlives the code that made it."""
 MIN_ELEVATION_RAD = np.radians(3.0)
 NIGHT_LOSS_DB_PER_HOP = 1.0
 GROUND_LOSS_DB_PER_REFLECTION = 3.0
@@ -59,15 +66,205 @@ def noon_absorption_db(freq_mhz, elevation_rad):
 
 def hop_absorption_db(freq_mhz, elevation_rad, solar_zenith_rad):
     """Absorption of one hop [dB] for the sun's zenith angle at the reflection point."""
+    return _hop_loss_db(noon_absorption_db(freq_mhz, elevation_rad), solar_zenith_rad)
+
+
+def _hop_loss_db(noon_db, solar_zenith_rad):
+    """Absorption of one hop [dB] from the noon absorption [dB] and the sun's zenith angle [rad]."""
     c = np.clip(np.cos(0.881 * np.asarray(solar_zenith_rad)), 0.0, None)
-    day = noon_absorption_db(freq_mhz, elevation_rad) * c**1.3
-    return NIGHT_LOSS_DB_PER_HOP + day
+    return NIGHT_LOSS_DB_PER_HOP + noon_db * c**1.3
 
 
 def _hops_and_elevation(d_m, layer_height_m):
     n = np.atleast_1d(fewest_hops(d_m, layer_height_m=layer_height_m, min_elevation_rad=MIN_ELEVATION_RAD))
     n = n.reshape(np.shape(d_m)) if np.ndim(d_m) else n[0]
     return n, hop_elevation_rad(d_m, n, layer_height_m=layer_height_m)
+
+
+# -- what the hour does not change, computed once per site and memoised ------------------------------------------
+
+
+@dataclass(frozen=True, eq=False)
+class PathGeometry:
+    """The storm-to-site geometry of a sample grid: the same for every month and hour.
+
+    Arrays are indexed [bearing, distance] (cells of ``bearing_step_deg`` x ``distance_step_m``).
+
+    key : the inputs it was built from (site [deg], layer height [m], bearing step [deg], distance step and
+        maximum [m]); the caches below are keyed by it
+    bearing_deg, distance_m : cell centres [deg], [m]
+    latitude_deg, longitude_deg : where each cell lies [deg] (WGS84 geodesics from the site)
+    hops, elevation_rad : the fewest equal hops and the arrival elevation [rad]
+    reflection_cells : per hop i = 1..max(hops), the cells (flat indices) whose paths have an i-th hop
+    reflection_lat_rad, reflection_lon_rad : per hop i, the i-th reflection point of those cells' paths, at
+        the fraction (2i - 1) / (2 n) of the path [rad]
+    spreading_per_m : 1 / (R sin(d / R)) [1/m]
+    sub_elevation_rad : arrival elevations of the SUB_DISTANCE sub-samples across each cell [rad]
+    """
+
+    key: tuple
+    bearing_deg: np.ndarray
+    distance_m: np.ndarray
+    latitude_deg: np.ndarray
+    longitude_deg: np.ndarray
+    hops: np.ndarray
+    elevation_rad: np.ndarray
+    reflection_cells: tuple[np.ndarray, ...]
+    reflection_lat_rad: tuple[np.ndarray, ...]
+    reflection_lon_rad: tuple[np.ndarray, ...]
+    spreading_per_m: np.ndarray
+    sub_elevation_rad: np.ndarray
+
+    @property
+    def bearing_step_deg(self) -> float:
+        return self.key[3]
+
+    @property
+    def distance_step_m(self) -> float:
+        return self.key[4]
+
+    def sub_azimuth_rad(self) -> np.ndarray:
+        """Azimuths of the sub-samples, shape [bearing, distance, SUB_DISTANCE, SUB_BEARING] [rad]."""
+        sub_b = (np.arange(SUB_BEARING) + 0.5) / SUB_BEARING - 0.5
+        az = np.radians(self.bearing_deg[..., None, None] + sub_b[None, None, None, :] * self.bearing_step_deg)
+        return np.broadcast_to(az, self.bearing_deg.shape + (SUB_DISTANCE, SUB_BEARING))
+
+
+@lru_cache(maxsize=8)
+def path_geometry(
+    site_lat_deg: float,
+    site_lon_deg: float,
+    layer_height_m: float,
+    bearing_step_deg: float,
+    distance_step_m: float,
+    max_distance_m: float,
+) -> PathGeometry:
+    """The hour-independent geometry of the sample grid around a site (memoised by its inputs)."""
+    from pyproj import Geod
+
+    key = (site_lat_deg, site_lon_deg, layer_height_m, bearing_step_deg, distance_step_m, max_distance_m)
+    bearings = np.arange(0.0, 360.0, bearing_step_deg)
+    dist = np.arange(distance_step_m, max_distance_m + 1.0, distance_step_m)
+    b, d = np.meshgrid(bearings, dist, indexing="ij")
+    geod = Geod(ellps="WGS84")
+    lon0 = np.full(b.size, site_lon_deg)
+    lat0 = np.full(b.size, site_lat_deg)
+    lon2, lat2, _ = geod.fwd(lon0, lat0, b.ravel(), d.ravel())
+    n, el = _hops_and_elevation(d, layer_height_m)
+    ref_cells, ref_lat, ref_lon = [], [], []
+    for i in range(1, int(n.max()) + 1):
+        cells = np.flatnonzero(n >= i)
+        frac = (2 * i - 1) / (2.0 * n.ravel()[cells])
+        lo, la, _ = geod.fwd(lon0[cells], lat0[cells], b.ravel()[cells], d.ravel()[cells] * frac)
+        ref_cells.append(cells)
+        ref_lat.append(np.radians(la))
+        ref_lon.append(np.radians(lo))
+    sub_d = (np.arange(SUB_DISTANCE) + 0.5) / SUB_DISTANCE - 0.5
+    d_sub = np.clip(d[..., None] + sub_d * distance_step_m, 1e3, None)
+    _, el_sub = _hops_and_elevation(d_sub, layer_height_m)
+    out = PathGeometry(
+        key=key,
+        bearing_deg=b,
+        distance_m=d,
+        latitude_deg=lat2.reshape(b.shape),
+        longitude_deg=lon2.reshape(b.shape),
+        hops=n,
+        elevation_rad=el,
+        reflection_cells=tuple(ref_cells),
+        reflection_lat_rad=tuple(ref_lat),
+        reflection_lon_rad=tuple(ref_lon),
+        spreading_per_m=1.0 / (EARTH_RADIUS_M * np.sin(d / EARTH_RADIUS_M)),
+        sub_elevation_rad=el_sub,
+    )
+    for arr in (
+        *ref_cells,
+        *ref_lat,
+        *ref_lon,
+        b,
+        d,
+        out.latitude_deg,
+        out.longitude_deg,
+        n,
+        el,
+        out.spreading_per_m,
+        el_sub,
+    ):
+        arr.setflags(write=False)
+    return out
+
+
+def _geometry(site_lat_deg, site_lon_deg, layer_height_m, bearing_step_deg, distance_step_m, max_distance_m):
+    return path_geometry(
+        float(site_lat_deg),
+        float(site_lon_deg),
+        float(layer_height_m),
+        float(bearing_step_deg),
+        float(distance_step_m),
+        float(max_distance_m),
+    )
+
+
+@lru_cache(maxsize=16)
+def _p372_blocks_cached(key, month, freq_hz, path_str, mtime):
+    geom = path_geometry(*key)
+    out = p372.atmospheric_blocks(
+        geom.latitude_deg, geom.longitude_deg, month=month, freq_hz=freq_hz, data_dir=Path(path_str).parent
+    )
+    for arr in (out.fa_db, out.du_db, out.dl_db, out.longitude_deg):
+        arr.setflags(write=False)
+    return out
+
+
+def p372_blocks(geom: PathGeometry, *, month: int, freq_hz: float, data_dir=None) -> p372.BlockLevels:
+    """P.372 atmospheric noise at the grid's cells for the six time blocks of a month (memoised by the grid,
+    the month, the frequency and the coefficient file with its modification time)."""
+    from noisemodels import p372_maps
+
+    try:
+        path = p372_maps.month_file(p372_maps.resolve_data_dir(data_dir), month)
+        mtime = path.stat().st_mtime
+    except (OSError, ValueError):  # missing data or a bad month: the uncached call raises the clear error
+        return p372.atmospheric_blocks(
+            geom.latitude_deg, geom.longitude_deg, month=month, freq_hz=freq_hz, data_dir=data_dir
+        )
+    return _p372_blocks_cached(geom.key, int(month), float(freq_hz), str(path), mtime)
+
+
+@lru_cache(maxsize=16)
+def _noon_loss_db(key: tuple, freq_mhz: float) -> np.ndarray:
+    """noon_absorption_db at each cell's arrival elevation (it does not depend on the hour)."""
+    out = noon_absorption_db(freq_mhz, path_geometry(*key).elevation_rad)
+    out.setflags(write=False)
+    return out
+
+
+def cell_power(
+    geom: PathGeometry, *, month: int, utc_hour: float, freq_hz: float, data_dir=None, sources=None
+) -> np.ndarray:
+    """Relative noise power arriving from each cell of the grid at a UTC hour (module docstring)."""
+    if sources is None:
+        fa = p372_blocks(geom, month=month, freq_hz=freq_hz, data_dir=data_dir).at_utc_hour(utc_hour).fa_db
+        density = 10.0 ** (fa / 10.0)
+    else:
+        density = np.asarray(sources(geom.latitude_deg, geom.longitude_deg), dtype=float)
+    n = geom.hops
+    f_mhz = freq_hz / 1e6
+    noon = _noon_loss_db(geom.key, f_mhz).ravel()
+    # Absorption at each hop's reflection point (fractions (2i - 1) / (2n) of the path), where there is one.
+    doy = solar.mid_month_day_of_year(month)
+    loss = np.zeros(n.size)
+    for cells, la, lo in zip(geom.reflection_cells, geom.reflection_lat_rad, geom.reflection_lon_rad):
+        chi = np.pi / 2 - solar.solar_elevation_rad(la, lo, day_of_year=doy, utc_hour=utc_hour)
+        loss[cells] += _hop_loss_db(noon[cells], chi)
+    loss_db = loss.reshape(n.shape)
+    loss_db += GROUND_LOSS_DB_PER_REFLECTION * (n - 1)
+    return (
+        density
+        * geom.spreading_per_m
+        * 10.0 ** (-loss_db / 10.0)
+        * np.radians(geom.bearing_step_deg)
+        * geom.distance_step_m
+    )
 
 
 def arrival_samples(
@@ -91,64 +288,79 @@ def arrival_samples(
     density: a function (lat_deg, lon_deg) -> relative power per unit area
     (used by tests to place a single storm region by hand).
     """
-    from pyproj import Geod
-
-    bearings = np.arange(0.0, 360.0, bearing_step_deg)
-    dist = np.arange(distance_step_m, max_distance_m + 1.0, distance_step_m)
-    b, d = np.meshgrid(bearings, dist, indexing="ij")
-    geod = Geod(ellps="WGS84")
-    lon2, lat2, _ = geod.fwd(np.full(b.size, site_lon_deg), np.full(b.size, site_lat_deg), b.ravel(), d.ravel())
-    lat2 = lat2.reshape(b.shape)
-    lon2 = lon2.reshape(b.shape)
-    f_mhz = freq_hz / 1e6
-    if sources is None:
-        fa = p372.atmospheric(lat2, lon2, month=month, freq_hz=freq_hz, utc_hour=utc_hour, data_dir=data_dir).fa_db
-        density = 10.0 ** (fa / 10.0)
-    else:
-        density = np.asarray(sources(lat2, lon2), dtype=float)
-    n, el = _hops_and_elevation(d, layer_height_m)
-    # Absorption at each hop's reflection point: fractions (2i - 1) / (2n) of the path.
-    doy = solar.mid_month_day_of_year(month)
-    nmax = int(n.max())
-    loss_db = np.zeros(b.shape)
-    for i in range(1, nmax + 1):
-        active = n >= i
-        frac = (2 * i - 1) / (2.0 * n)
-        lo, la, _ = geod.fwd(
-            np.full(b.size, site_lon_deg), np.full(b.size, site_lat_deg), b.ravel(), (d * frac).ravel()
-        )
-        chi = np.pi / 2 - solar.solar_elevation_rad(np.radians(la), np.radians(lo), day_of_year=doy, utc_hour=utc_hour)
-        hop = hop_absorption_db(f_mhz, el, chi.reshape(b.shape))
-        loss_db += np.where(active, hop, 0.0)
-    loss_db += GROUND_LOSS_DB_PER_REFLECTION * (n - 1)
-    spreading = 1.0 / (EARTH_RADIUS_M * np.sin(d / EARTH_RADIUS_M))
-    power = density * spreading * 10.0 ** (-loss_db / 10.0) * np.radians(bearing_step_deg) * distance_step_m
+    geom = _geometry(site_lat_deg, site_lon_deg, layer_height_m, bearing_step_deg, distance_step_m, max_distance_m)
+    power = cell_power(geom, month=month, utc_hour=utc_hour, freq_hz=freq_hz, data_dir=data_dir, sources=sources)
     # Each sample stands for a cell of bearing x distance: spread its power over sub-samples across the cell,
     # so that the arrival elevations (which change fast with distance near the site) fill the sky smoothly.
-    sub_d = (np.arange(SUB_DISTANCE) + 0.5) / SUB_DISTANCE - 0.5
-    sub_b = (np.arange(SUB_BEARING) + 0.5) / SUB_BEARING - 0.5
-    d_sub = np.clip(d[..., None] + sub_d * distance_step_m, 1e3, None)
-    _, el_sub = _hops_and_elevation(d_sub, layer_height_m)
-    az_sub = np.radians(b[..., None, None] + sub_b[None, None, None, :] * bearing_step_deg)
-    el_sub = np.broadcast_to(el_sub[..., None], d.shape + (SUB_DISTANCE, SUB_BEARING))
-    az_sub = np.broadcast_to(az_sub, d.shape + (SUB_DISTANCE, SUB_BEARING))
+    az_sub = geom.sub_azimuth_rad()
+    el_sub = np.broadcast_to(geom.sub_elevation_rad[..., None], az_sub.shape)
     p_sub = np.broadcast_to((power / (SUB_DISTANCE * SUB_BEARING))[..., None, None], el_sub.shape)
     return az_sub.ravel(), el_sub.ravel(), p_sub.ravel()
 
 
 def deposit(directions: Directions, azimuth_rad, elevation_rad, power):
     """Spread sample powers onto a HEALPix direction set by bilinear weights; returns power per pixel."""
-    import healpy as hp
-
     nside = directions.nside
     if nside is None:
         raise ValueError("deposit needs a HEALPix direction set (upper_hemisphere)")
     theta, phi = to_healpy_angles(azimuth_rad, elevation_rad)
-    pix, w = hp.get_interp_weights(nside, theta, phi)
-    full = np.bincount(pix.ravel(), weights=(w * power[None, :]).ravel(), minlength=hp.nside2npix(nside))
-    # Map full-sphere pixel indices onto the upper-hemisphere subset.
-    up_pix = hp.ang2pix(nside, *to_healpy_angles(directions.azimuth_rad, directions.elevation_rad))
-    return full[up_pix]
+    pix, w = interpolation_weights(nside, theta, phi)
+    full = np.bincount(pix.ravel(), weights=(w * power[None, :]).ravel(), minlength=12 * nside * nside)
+    return full[_up_pixels(directions)]
+
+
+@lru_cache(maxsize=8)
+def _deposit_weights(key: tuple, nside: int):
+    """The bilinear weights that spread the grid's cells onto the full HEALPix sphere, summed per (pixel, cell)
+    pair: (pixel, cell, weight) flat arrays and the number of pixels.  They depend on the geometry only."""
+    geom = path_geometry(*key)
+    az_sub = geom.sub_azimuth_rad()
+    el_sub = np.broadcast_to(geom.sub_elevation_rad[..., None], az_sub.shape)
+    pix, w = interpolation_weights(nside, *to_healpy_angles(az_sub.ravel(), el_sub.ravel()))
+    ncell = geom.bearing_deg.size
+    per_cell = SUB_DISTANCE * SUB_BEARING
+    cell = np.broadcast_to(np.arange(az_sub.size) // per_cell, pix.shape)
+    pair, inverse = np.unique(pix.astype(np.int64).ravel() * ncell + cell.ravel(), return_inverse=True)
+    weight = np.bincount(inverse.ravel(), weights=w.ravel() / per_cell)
+    return pair // ncell, pair % ncell, weight, 12 * nside * nside
+
+
+def _up_pixels(directions: Directions) -> np.ndarray:
+    """The full-sphere (RING) pixel of each direction of a HEALPix direction set."""
+    if directions is upper_hemisphere(directions.nside):
+        return np.arange(directions.size)  # built ring by ring from the north pole: the first pixels, in order
+    return direction_to_pixel(directions.nside, directions.azimuth_rad, directions.elevation_rad)
+
+
+def _disk_key(grid, *, month, utc_hour, freq_hz, nside, data_dir) -> dict | None:
+    """Every input of a storm map, for the persistent cache: the grid, the hour, the model's constants and the
+    P.372 coefficient file (path, size and modification time); None when that file cannot be found (the
+    computation then raises its clear error)."""
+    from noisemodels import p372_maps
+
+    try:
+        path = p372_maps.month_file(p372_maps.resolve_data_dir(data_dir), month).resolve()
+        st = path.stat()
+    except (OSError, ValueError):
+        return None
+    return {
+        "version": SKY_MODEL_VERSION,
+        "grid": [float(x) for x in grid],
+        "month": int(month),
+        "utc_hour": float(utc_hour),
+        "freq_hz": float(freq_hz),
+        "nside": int(nside),
+        "constants": [
+            float(MIN_ELEVATION_RAD),
+            NIGHT_LOSS_DB_PER_HOP,
+            GROUND_LOSS_DB_PER_REFLECTION,
+            D_REGION_HEIGHT_M,
+            SUB_DISTANCE,
+            SUB_BEARING,
+            EARTH_RADIUS_M,
+        ],
+        "p372": [str(path), st.st_size, st.st_mtime_ns],
+    }
 
 
 def storm_component(
@@ -165,18 +377,30 @@ def storm_component(
     sources=None,
     name: str = "atmospheric (P.372, storm directions)",
 ) -> SkyComponent:
-    """Atmospheric noise spread over the sky by the storm-to-site model, normalised to ``level``."""
-    az, el, power = arrival_samples(
-        site_lat_deg,
-        site_lon_deg,
-        month=month,
-        utc_hour=utc_hour,
-        freq_hz=freq_hz,
-        layer_height_m=layer_height_m,
-        data_dir=data_dir,
-        sources=sources,
-    )
-    per_pixel = deposit(directions, az, el, power)
+    """Atmospheric noise spread over the sky by the storm-to-site model, normalised to ``level``.
+
+    The geometry of the paths, the P.372 maps of the month's six time blocks at the source cells and the
+    weights that spread the cells over the HEALPix pixels are memoised, so a night of hours at one site costs
+    the hour's absorption and one weighted sum each.  On the upper hemisphere and with P.372's sources, the
+    map is also kept in the persistent cache (:mod:`noisemodels.skycache`), keyed by every input.
+    """
+    if directions.nside is None:
+        raise ValueError("deposit needs a HEALPix direction set (upper_hemisphere)")
+    grid = (site_lat_deg, site_lon_deg, layer_height_m, 3.0, 100e3, 12_000e3)
+    key = None
+    if sources is None and directions is upper_hemisphere(directions.nside):
+        key = _disk_key(
+            grid, month=month, utc_hour=utc_hour, freq_hz=freq_hz, nside=directions.nside, data_dir=data_dir
+        )
+    per_pixel = skycache.load("storms", key) if key is not None else None
+    if per_pixel is None or per_pixel.shape != (directions.size,):
+        geom = _geometry(*grid)
+        power = cell_power(geom, month=month, utc_hour=utc_hour, freq_hz=freq_hz, data_dir=data_dir, sources=sources)
+        pixel, cell, weight, npix = _deposit_weights(geom.key, int(directions.nside))
+        full = np.bincount(pixel, weights=weight * power.ravel()[cell], minlength=npix)
+        per_pixel = full[_up_pixels(directions)]
+        if key is not None:
+            skycache.store("storms", key, per_pixel)
     if not np.any(per_pixel > 0):
         raise ValueError("the storm model found no path to the site; use a uniform or sector arrival instead")
     return normalised_component(name, "atmospheric", directions, per_pixel / directions.solid_angle_sr, level)

@@ -6,16 +6,14 @@
     '80 m quarter-wave vertical'
 
 The names below are imported when first used, so that ``import snrgain`` (and the command line's ``--help``)
-stays quick and loads neither the sky machinery nor matplotlib.
+stays quick and loads neither the sky machinery nor matplotlib.  Importing snrgain changes no process-wide
+setting: the memory-allocator tuning of :mod:`snrgain.allocator` is done by the command line only (a program
+that wants it calls ``snrgain.allocator.tune()`` itself).
 """
 
 from importlib import import_module
 
-from snrgain.allocator import tune as _tune_allocator
-
 __version__ = "0.1.0"
-
-_tune_allocator()
 
 _LAZY = {
     "evaluate": "snrgain.pipeline",

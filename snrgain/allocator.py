@@ -7,6 +7,9 @@ long-wire pattern (measured: 1.09 ms against 0.39 ms with the thresholds below; 
 module raises glibc's mmap threshold to 16 MB and its trim threshold to 64 MB, the same as setting
 MALLOC_MMAP_THRESHOLD_ and MALLOC_TRIM_THRESHOLD_ (glibc's mallopt(3)).  It changes no results, only where
 freed memory waits.  Elsewhere than glibc, or with SNRGAIN_KEEP_MALLOC set, it does nothing.
+
+It is a process-wide setting, so only the command line makes it (``snrgain.cli.main.main``); ``import snrgain``
+does not.  A program of one's own may call :func:`tune`.
 """
 
 from __future__ import annotations

@@ -10,14 +10,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-EPS0_F_PER_M = 8.8541878188e-12
-"""Vacuum permittivity [F/m] (CODATA 2022)."""
-MU0_H_PER_M = 1.25663706127e-6
-"""Vacuum permeability [H/m] (CODATA 2022)."""
-C_M_PER_S = 299_792_458.0
-"""Speed of light in vacuum [m/s] (exact)."""
-ETA0_OHM = MU0_H_PER_M * C_M_PER_S
-"""Impedance of free space [ohm]."""
+# The physical constants' one source (SI), re-exported here under the names the antenna models import.
+from noisemodels.constants import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M  # noqa: F401
 
 
 @dataclass(frozen=True)

@@ -58,7 +58,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import jve
 
 from snrgain.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M, Ground
 from snrgain.units import FT_PER_M
@@ -159,6 +158,8 @@ def wire_internal_impedance(freq_hz, radius_m, conductivity_s_per_m=COPPER_S_PER
     delta = np.sqrt(2.0 / (omega * MU0_H_PER_M * conductivity_s_per_m))
     k = (1 - 1j) / delta
     ka = k * radius_m
+    from scipy.special import jve  # imported here: scipy.special is slow to import
+
     ratio = jve(0, ka) / jve(1, ka)  # the exponential scaling cancels in the ratio
     return complex(k / (2 * np.pi * radius_m * conductivity_s_per_m) * ratio)
 

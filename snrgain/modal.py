@@ -52,7 +52,6 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy import integrate
 
 from noisemodels.groundwave import complex_permittivity
 from snrgain.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
@@ -65,6 +64,8 @@ def _sqrt_re(z):
 
 
 def _cquad(f, a, b) -> complex:
+    from scipy import integrate  # slow to import: here, when needed
+
     re = integrate.quad(lambda t: np.real(f(t)), a, b, limit=400, epsabs=0, epsrel=1e-10)[0]
     im = integrate.quad(lambda t: np.imag(f(t)), a, b, limit=400, epsabs=0, epsrel=1e-10)[0]
     return complex(re, im)

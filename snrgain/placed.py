@@ -32,7 +32,6 @@ right beside a source stays finite.
 from __future__ import annotations
 
 import numpy as np
-from scipy.integrate import trapezoid
 
 from noisemodels.groundwave import dipole_field
 from snrgain.ground import C_M_PER_S
@@ -109,7 +108,7 @@ def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) ->
     else:
         d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
-    current = trapezoid(emf * transfer, x)
+    current = np.trapezoid(emf * transfer, x)
     if wire.has_leads:
         lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv]  # per unit field, at the source's elevation
         current += lead[0] * ev[0] * transfer[0]  # up the feed lead

@@ -420,6 +420,9 @@ def output_format(path) -> str:
 
 TARGET_CHUNK_S = 0.1
 """A chunk of designs holds about this much work [s] (enough to keep a cluster's overhead small)."""
+PROBE_DESIGNS = 5
+PROBE_S = 0.05
+"""The work per design is timed on the designs after the first, up to PROBE_DESIGNS of them or PROBE_S [s]."""
 
 
 def run(
@@ -442,13 +445,24 @@ def run(
     validate(study)
     total = design_count(study.varies)
     numbered = enumerate(designs(study.varies))
-    first = list(itertools.islice(numbered, 1))
     import time
 
-    t0 = time.perf_counter()
-    head_rows = run_designs(study, first)
-    per_design = max(time.perf_counter() - t0, 1e-4)
-    size = chunk_designs or max(1, int(TARGET_CHUNK_S / per_design))
+    # The first design also builds what every design shares (the sky, the reference): its time would make
+    # every chunk a single design.  The chunks are sized from the designs after it, timed one by one.
+    head_rows = run_designs(study, list(itertools.islice(numbered, 1)))
+    n_head = 1
+    size = chunk_designs
+    if size is None:
+        n_probe, t0 = 0, time.perf_counter()
+        while n_probe < PROBE_DESIGNS and time.perf_counter() - t0 < PROBE_S:
+            block = list(itertools.islice(numbered, 1))
+            if not block:
+                break
+            head_rows += run_designs(study, block)
+            n_probe += 1
+        per_design = max((time.perf_counter() - t0) / n_probe, 1e-5) if n_probe else 1e-4
+        n_head += n_probe
+        size = max(1, int(TARGET_CHUNK_S / per_design))
 
     def chunks():
         while True:
@@ -461,7 +475,7 @@ def run(
         writer = _TableWriter(tmp, fmt)
         try:
             writer.write(head_rows)
-            done = 1
+            done = n_head
             if progress:
                 progress(done)
             results = _in_process(study, chunks()) if dask is None else _on_dask(study, chunks(), dask)

@@ -53,3 +53,20 @@ family = "isotropic"
 @pytest.fixture
 def minimal_text():
     return MINIMAL
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _private_sky_cache(tmp_path_factory):
+    """The persistent sky cache (noisemodels.skycache) in a folder of the test session's own, never the user's;
+    commands run in subprocesses inherit it through the environment."""
+    import os
+
+    from noisemodels import skycache
+
+    old = os.environ.get(skycache.ENV_DIR)
+    os.environ[skycache.ENV_DIR] = str(tmp_path_factory.mktemp("sky-cache"))
+    yield
+    if old is None:
+        os.environ.pop(skycache.ENV_DIR, None)
+    else:
+        os.environ[skycache.ENV_DIR] = old

@@ -475,6 +475,7 @@ def test_atomic_writer(tmp_path):
 
 
 def test_help_check_new_and_wire_leave_healpy_and_matplotlib_unimported():
+    # (tests/test_light_start.py checks --help and check for scipy's slow parts and pyproj too)
     code = (
         "import sys\n"
         "from click.testing import CliRunner\n"

@@ -393,7 +393,8 @@ class Array(Antenna):
         rv, rh = self.element_responses(freq_hz, azimuth_rad, elevation_rad)
         norm = float(np.real(w.conj() @ self.norm_matrix(freq_hz) @ w))
         scale = 1.0 / np.sqrt(norm)
-        return np.tensordot(w, rv, axes=1) * scale, np.tensordot(w, rh, axes=1) * scale
+        # einsum, not tensordot: a product this small must not start multithreaded BLAS (slow under load)
+        return np.einsum("i,i...->...", w, rv) * scale, np.einsum("i,i...->...", w, rh) * scale
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
@@ -560,8 +561,8 @@ class PhasedVerticals(Array):
         m = self._line_matrix(freq_hz)
         scale = np.sqrt(4 * self.params.line_impedance * self._element_input_ohm(freq_hz))
         shape = rv.shape
-        rv = (m.T @ rv.reshape(len(m), -1)).reshape(shape) * scale
-        rh = (m.T @ rh.reshape(len(m), -1)).reshape(shape) * scale
+        rv = np.einsum("ij,in->jn", m, rv.reshape(len(m), -1)).reshape(shape) * scale  # no BLAS (see above)
+        rh = np.einsum("ij,in->jn", m, rh.reshape(len(m), -1)).reshape(shape) * scale
         return rv, rh
 
     def norm_matrix(self, freq_hz) -> np.ndarray:

@@ -40,7 +40,6 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy import integrate
 
 from snrgain.ground import C_M_PER_S, ETA0_OHM
 
@@ -85,6 +84,8 @@ def monopole_impedance(freq_hz: float, height_m: float, top_m: float, rho_m: flo
     def integrand(z, part):
         v = field_z(k, height_m, top_m, rho_m, z) * np.sin(k * (big_h - z))
         return v.real if part == 0 else v.imag
+
+    from scipy import integrate  # slow to import: here, when needed
 
     # The integrand is sharp within a few radii of the base and the top: split there.
     edge = min(50 * rho_m, 0.25 * height_m)

@@ -31,7 +31,6 @@ optimum itself.
 from __future__ import annotations
 
 import numpy as np
-from scipy import linalg, optimize
 
 FB_FLOOR = 1e-6
 """Front-to-back is maximised as G_front / (G_back + FB_FLOOR G_front): a null deeper than 60 dB counts no more."""
@@ -42,7 +41,8 @@ RANDOM_STARTS = 12
 def quadratic_form(rv, rh, weights=None) -> np.ndarray:
     """C = sum_d W_d (r_v r_v^H + r_h r_h^H) for element responses (N, D) and direction weights (D,)."""
     w = np.ones(rv.shape[1]) if weights is None else np.asarray(weights, dtype=float)
-    return (rv * w) @ rv.conj().T + (rh * w) @ rh.conj().T
+    # einsum, not matmul: N x N from a few thousand directions must not start multithreaded BLAS (slow under load)
+    return np.einsum("id,jd->ij", rv * w, rv.conj()) + np.einsum("id,jd->ij", rh * w, rh.conj())
 
 
 def ratio(u: np.ndarray, s: np.ndarray, n: np.ndarray) -> float:
@@ -53,6 +53,8 @@ def free_optimum(s: np.ndarray, n: np.ndarray) -> np.ndarray:
     """u maximising u^H S u / u^H N u (principal generalised eigenvector), scaled to unit largest magnitude."""
     n = 0.5 * (n + n.conj().T)
     s = 0.5 * (s + s.conj().T)
+    from scipy import linalg  # slow to import: here, when needed
+
     n = n + np.eye(len(n)) * 1e-12 * np.real(np.trace(n))  # a lossless, noiseless corner stays solvable
     _, vecs = linalg.eigh(s, n)
     u = vecs[:, -1]
@@ -71,6 +73,8 @@ def best_phases(objective, amplitudes: np.ndarray, starts: list[np.ndarray], *, 
 
     def cost(phi):
         return -objective(u_of(phi))
+
+    from scipy import optimize  # slow to import: here, when needed
 
     rng = np.random.default_rng(seed)
     trials = [np.angle(s[1:] * np.conj(s[0])) for s in starts]

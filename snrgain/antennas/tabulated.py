@@ -25,7 +25,6 @@ from pathlib import Path
 from typing import Literal
 
 import numpy as np
-from scipy.interpolate import RegularGridInterpolator
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
 from snrgain.fields import quantity
@@ -117,22 +116,33 @@ class Tabulated(Antenna):
         cols = read_pattern_csv(self.path)
         az_u, el_u, ia, ie = _grid(self.path, cols)
         self.has_polarization = "gain_v_dbi" in cols and "gain_h_dbi" in cols
-        self._interp = {}
+        self._grids = {}
         fields = ["gain_v_dbi", "gain_h_dbi"] if self.has_polarization else ["gain_dbi"]
-        az_ext = np.append(az_u, az_u[0] + 360.0)
+        self._axes = (el_u, np.append(az_u, az_u[0] + 360.0))
         for f in fields:
             grid = np.full((el_u.size, az_u.size), np.nan)
             grid[ie, ia] = np.maximum(np.nan_to_num(cols[f], nan=FLOOR_DBI, neginf=FLOOR_DBI), FLOOR_DBI)
-            grid = np.concatenate([grid, grid[:, :1]], axis=1)
-            self._interp[f] = RegularGridInterpolator((el_u, az_ext), grid, bounds_error=False, fill_value=None)
+            self._grids[f] = np.concatenate([grid, grid[:, :1]], axis=1)
+        self._interp = {}
         self._az0 = az_u[0]
+
+    def _interpolator(self, field):
+        """The table's interpolator, built on first use (scipy.interpolate is slow to import; checking a
+        scenario reads the table but evaluates no pattern)."""
+        if field not in self._interp:
+            from scipy.interpolate import RegularGridInterpolator
+
+            self._interp[field] = RegularGridInterpolator(
+                self._axes, self._grids[field], bounds_error=False, fill_value=None
+            )
+        return self._interp[field]
 
     def _lookup(self, field, azimuth_rad, elevation_rad):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         az_deg = np.mod(np.degrees(az - self.params.rotate) - self._az0, 360.0) + self._az0
         el_deg = np.clip(np.degrees(el), 0.0, 90.0)
         pts = np.stack([el_deg.ravel(), az_deg.ravel()], axis=-1)
-        g = 10.0 ** (self._interp[field](pts).reshape(az.shape) / 10.0)
+        g = 10.0 ** (self._interpolator(field)(pts).reshape(az.shape) / 10.0)
         return np.where(above_horizon(el), g, 0.0)
 
     def check_frequency(self, freq_hz):

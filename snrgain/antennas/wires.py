@@ -32,7 +32,6 @@ from typing import Annotated, Literal
 
 import numpy as np
 from pydantic import BeforeValidator, Field, model_validator
-from scipy.interpolate import RegularGridInterpolator
 
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity, wire_radius_m
@@ -246,6 +245,8 @@ class WireStructure(TransformerFeed, Antenna):
         # NEC's phi runs counter-clockwise from east (x); the compass bearing is 90 - phi.
         bearing = np.mod(90.0 - phi, 360.0)
         order = np.argsort(bearing)
+        from scipy.interpolate import RegularGridInterpolator  # slow to import: here, when needed
+
         interp = {}
         for key, g in (("v", gv), ("h", gh)):
             grid = np.maximum(g[::-1, :][:, order], -100.0)

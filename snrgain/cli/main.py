@@ -65,6 +65,10 @@ def main() -> None:
     # Floating-point warnings name source lines, which say nothing to a user; results carry their own checks.
     warnings.filterwarnings("ignore", category=RuntimeWarning)
     _end_cleanly_on_sigterm()
+    # The command line owns its process: keep freed memory for the next array (snrgain.allocator).
+    from snrgain.allocator import tune
+
+    tune()
     cli()
 
 

@@ -1,0 +1,131 @@
+"""A persistent cache of computed sky maps, so that a run that leaves the noise alone does not recompute it.
+
+Each entry is one array (a .npy file) named by the SHA-256 of a key: a dict of every input that enters the
+array, with a kind and a version (bumped when the model's code changes what it computes).  The folder is the
+user's cache folder (platformdirs), under ``sky/v<FORMAT>``, or $SNRGAIN_CACHE_DIR.
+
+- Opt-out: SNRGAIN_NO_CACHE set to anything but "" or "0" (nothing is read or written).
+- Size bound: $SNRGAIN_CACHE_MAX_MB (default 200); after a write, the least recently used entries are removed
+  until the folder is within the bound.  A hit refreshes its entry's time.
+- Safe under concurrent runs: an entry is written to a temporary file in the same folder and renamed into
+  place (atomic on one file system), so a reader sees a whole entry or none; an unreadable entry counts as a
+  miss and is removed.  Failures to write (read-only or full disk) are ignored: the cache only saves time.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+FORMAT = 1
+"""Version of the file layout; part of the folder name."""
+DEFAULT_MAX_MB = 200.0
+ENV_DIR = "SNRGAIN_CACHE_DIR"
+ENV_OFF = "SNRGAIN_NO_CACHE"
+ENV_MAX_MB = "SNRGAIN_CACHE_MAX_MB"
+
+
+def enabled() -> bool:
+    """False when the user opted out ($SNRGAIN_NO_CACHE)."""
+    return os.environ.get(ENV_OFF, "") in ("", "0")
+
+
+def folder() -> Path:
+    """Where the entries live: $SNRGAIN_CACHE_DIR, else the user cache folder of snrgain."""
+    base = os.environ.get(ENV_DIR)
+    if not base:
+        from platformdirs import user_cache_dir
+
+        base = user_cache_dir("snrgain")
+    return Path(base).expanduser() / "sky" / f"v{FORMAT}"
+
+
+def max_bytes() -> float:
+    try:
+        return float(os.environ.get(ENV_MAX_MB, DEFAULT_MAX_MB)) * 1e6
+    except ValueError:
+        return DEFAULT_MAX_MB * 1e6
+
+
+def key_name(kind: str, key: dict) -> str:
+    """The file name of an entry: its kind and the SHA-256 of its key (floats written exactly, via repr)."""
+    text = json.dumps({"kind": kind, "format": FORMAT, **key}, sort_keys=True, default=repr)
+    return f"{kind}-{hashlib.sha256(text.encode()).hexdigest()}.npy"
+
+
+def load(kind: str, key: dict) -> np.ndarray | None:
+    """The stored array for a key, or None (a miss, or the cache is off)."""
+    if not enabled():
+        return None
+    path = folder() / key_name(kind, key)
+    try:
+        with open(path, "rb") as fh:
+            arr = np.load(fh, allow_pickle=False)
+    except FileNotFoundError:
+        return None
+    except (OSError, ValueError, EOFError):  # damaged or half-removed: recompute, and drop it
+        _remove(path)
+        return None
+    try:
+        os.utime(path)  # least recently used goes first
+    except OSError:
+        pass
+    return arr
+
+
+def store(kind: str, key: dict, arr: np.ndarray) -> None:
+    """Keep an array for a key (atomically; failures are ignored), then hold the folder to its size bound."""
+    if not enabled():
+        return
+    where = folder()
+    tmp = None
+    try:
+        where.mkdir(parents=True, exist_ok=True)
+        with tempfile.NamedTemporaryFile(dir=where, prefix=".tmp-", suffix=".npy", delete=False) as fh:
+            tmp = Path(fh.name)
+            np.save(fh, np.asarray(arr), allow_pickle=False)
+        os.replace(tmp, where / key_name(kind, key))
+        tmp = None
+    except OSError:
+        return
+    finally:
+        if tmp is not None:
+            _remove(tmp)
+    trim(where)
+
+
+def trim(where: Path | None = None) -> None:
+    """Remove the least recently used entries until the folder holds no more than the size bound."""
+    import time
+
+    where = folder() if where is None else where
+    entries = []
+    for p in where.glob("*.npy"):
+        try:
+            st = p.stat()
+        except OSError:
+            continue
+        if p.name.startswith(".tmp-"):  # a writer's temporary file; one left by a crash an hour ago goes
+            if st.st_mtime < time.time() - 3600:
+                _remove(p)
+            continue
+        entries.append((st.st_mtime, st.st_size, p))
+    total = sum(size for _, size, _ in entries)
+    limit = max_bytes()
+    for _, size, p in sorted(entries, key=lambda e: e[0]):
+        if total <= limit:
+            break
+        _remove(p)
+        total -= size
+
+
+def _remove(path: Path) -> None:
+    try:
+        path.unlink()
+    except OSError:
+        pass

@@ -1,0 +1,95 @@
+"""A light start: what the command line and ``import snrgain`` load and change (issue 25)."""
+
+import subprocess
+import sys
+
+from tests.conftest import REPO, SCENARIOS
+
+SLOW_TO_IMPORT = ("scipy.integrate", "scipy.special", "scipy.interpolate", "healpy", "matplotlib", "pyproj")
+
+
+def _loaded_after(*commands) -> list[list[str]]:
+    """In a fresh interpreter, run each command line through click's runner; the slow libraries loaded after each."""
+    code = "import sys\nfrom click.testing import CliRunner\nfrom snrgain.cli.main import cli\n"
+    for args in commands:
+        code += (
+            f"r = CliRunner().invoke(cli, {list(args)!r})\n"
+            "assert r.exit_code == 0, r.output\n"
+            f"print(sorted(m for m in {SLOW_TO_IMPORT!r} if m in sys.modules))\n"
+        )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO).stdout
+    return [eval(line) for line in out.strip().splitlines()]
+
+
+def test_help_and_check_load_no_slow_library():
+    # Targets given by bearing: --help and check need none of them.  A target given by place needs its geodesic
+    # (pyproj), and nothing else.
+    help_, by_bearing, by_place = _loaded_after(
+        ["--help"],
+        ["check", str(SCENARIOS / "wren-corner.toml")],
+        ["check", str(SCENARIOS / "alder-hollow.toml")],
+    )
+    assert help_ == [] and by_bearing == []
+    assert by_place == ["pyproj"]
+
+
+def test_import_snrgain_changes_no_process_setting():
+    # The allocator's tuning (glibc mallopt) is process-wide: importing the library must not do it; the command
+    # line does it once.
+    code = (
+        "import snrgain, snrgain.allocator as a\n"
+        "snrgain.load  # a lazy name, loading the scenario machinery\n"
+        "print(a._done)\n"
+        "import snrgain.cli.main as m, sys\n"
+        "print(a._done)\n"
+        "sys.argv = ['snrgain', '--version']\n"
+        "try:\n"
+        "    m.main()\n"
+        "except SystemExit:\n"
+        "    pass\n"
+        "print(a._done or sys.platform != 'linux')\n"
+    )
+    env_free = {k: v for k, v in __import__("os").environ.items() if k != "SNRGAIN_KEEP_MALLOC"}
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO, env=env_free
+    ).stdout.split()
+    assert out[:2] == ["False", "False"]
+    assert out[-1] == "True"
+
+
+def test_healpy_loads_without_pyplot_for_the_sky():
+    # The sky helpers need healpy's pixel functions only: matplotlib.pyplot stays unloaded.
+    code = (
+        "import sys\n"
+        "from noisemodels import sphere\n"
+        "hp = sphere.healpy()\n"
+        "assert hp.nside2npix(4) == 192 and hp.get_interp_weights(4, 0.5, 0.5)[0].shape == (4,)\n"
+        "print('matplotlib.pyplot' in sys.modules, 'matplotlib' in sys.modules)\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO).stdout
+    assert out.split() == ["False", "False"]
+
+
+def test_physical_constants_are_scipys_and_written_once():
+    # One source: the values equal scipy.constants' (CODATA 2022) to the last digit, and no other module
+    # writes out epsilon_0, mu_0, c or k.
+    import re
+
+    import scipy.constants as sc
+
+    from noisemodels import constants
+    from snrgain import ground
+
+    assert constants.C_M_PER_S == sc.c
+    assert constants.EPS0_F_PER_M == sc.epsilon_0
+    assert constants.MU0_H_PER_M == sc.mu_0
+    assert constants.BOLTZMANN_J_PER_K == sc.k
+    assert ground.EPS0_F_PER_M is constants.EPS0_F_PER_M and ground.ETA0_OHM == sc.mu_0 * sc.c
+    literal = re.compile(r"8\.854187|1\.256637|299_?792_?458|2\.99792458e8|1\.380649e-23")
+    writers = [
+        str(p.relative_to(REPO))
+        for folder in ("snrgain", "noisemodels")
+        for p in sorted((REPO / folder).rglob("*.py"))
+        if literal.search(p.read_text())
+    ]
+    assert writers == ["noisemodels/constants.py"]
