@@ -166,7 +166,8 @@ def test_only_the_pipeline_composes_the_stages():
 
 def test_the_spread_on_histograms_equals_the_exact_one(monkeypatch):
     # Large spreads are ranked on 0.001 dB histograms shifted per target (snrgain.spread.Histogram); the same
-    # scenario ranked exactly (sorting every weighted sample) must agree to 0.01 dB (bins of 0.001 dB, merged samples move the interpolation a little).
+    # scenario ranked exactly (sorting every weighted sample) must agree to 0.01 dB (bins of 0.001 dB: merged
+    # samples move the interpolation a little).
     from snrgain import spread
 
     path = REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml"
