@@ -24,3 +24,12 @@ class SpecError(ValueError):
 
 class ReadingsError(ScenarioError):
     """An invalid readings file (calibrate, locate): ``problems`` is a list of (field path, message)."""
+
+
+class TooLargeError(ValueError):
+    """A scenario whose evaluation would take longer or more memory than the stated limits allow, refused before
+    any work with the estimate; ``field`` names the key that sizes it."""
+
+    def __init__(self, message: str, field: str = "uncertainty.samples"):
+        self.field = field
+        super().__init__(message)

@@ -41,17 +41,21 @@ from snrgain.scenario import Scenario, load
 from snrgain.spread import SnrSpread, over_hours, snr_spread
 
 
-def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
+def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: bool = False) -> Results:
     """Run a scenario (path, TOML text, dict, or a loaded Scenario) and return Results.
 
     ``p372_dir``: folder of the ITU-R P.372 coefficient files, used when
-    neither the scenario key nor $SNRGAIN_P372_DIR names one.
+    neither the scenario key nor $SNRGAIN_P372_DIR names one.  A scenario whose
+    estimated cost passes :data:`MAX_SECONDS` or :data:`MAX_MEMORY_BYTES` is
+    refused before any work (:class:`snrgain.errors.TooLargeError`, with the
+    estimate) unless ``allow_long``.
 
     >>> r = evaluate("scenarios/marrow-fen.toml")
     >>> float(np.nanmax(abs(r.reference.snr_gain_db)))  # the reference against itself
     0.0
     """
     sc = source if isinstance(source, Scenario) else load(source, nside=nside, p372_dir=p372_dir)
+    check_size(sc, allow_long=allow_long)
     grid = sky_grid(sc)
     sc = resolve_sources(sc)
     skies = build_sky(sc, grid)
@@ -59,6 +63,31 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None) -> Results:
     nominal = products(sc, sc.antennas, grid, skies)
     spread = snr_spread(sc, grid, skies, nominal)
     return decide(sc, skies, antenna_results(sc, nominal, skies, spread), pattern_cuts(sc))
+
+
+MAX_SECONDS = 300.0
+"""Estimated run time [s] above which :func:`evaluate` refuses a scenario unless asked (``allow_long``)."""
+MAX_MEMORY_BYTES = 4 * 2**30
+"""Estimated memory [B] above which :func:`evaluate` refuses a scenario unless asked (``allow_long``)."""
+
+
+def check_size(sc: Scenario, *, allow_long: bool = False):
+    """The scenario's estimated cost (:func:`snrgain.spread.size`); raises TooLargeError naming what sizes it and
+    what would fit when it passes the limits and ``allow_long`` is not given."""
+    from snrgain.errors import TooLargeError
+    from snrgain.spread import size
+
+    s = size(sc)
+    if allow_long or (s.seconds <= MAX_SECONDS and s.memory_bytes <= MAX_MEMORY_BYTES):
+        return s
+    fit = max(20, int(sc.uncertainty.samples * min(MAX_SECONDS / s.seconds, MAX_MEMORY_BYTES / s.memory_bytes)))
+    raise TooLargeError(
+        f"this scenario would take about {s.seconds:.0f} s and {s.memory_bytes / 2**30:.1f} GB "
+        f"({s.antennas} antennas x {s.grounds} grounds x {s.draws} noise draws x {s.components} noise components "
+        f"x {s.cells} month-hours at nside {sc.nside}), above the limits of {MAX_SECONDS:.0f} s and "
+        f"{MAX_MEMORY_BYTES / 2**30:.0f} GB; lower [uncertainty] samples (to {fit} or fewer), listen at fewer "
+        "hours, or allow it (--allow-long)"
+    )
 
 
 def sky_grid(sc: Scenario):

@@ -213,21 +213,49 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
     return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
 
 
-def spread_size(sc) -> tuple[int, int]:
-    """(weighted samples ranked, bytes of the largest arrays held at once) of a scenario's spread: what its
-    cost grows with, for an estimate before any work."""
+@dataclass(frozen=True)
+class Size:
+    """What a scenario's evaluation will cost, estimated before any work from its dimensions."""
+
+    antennas: int
+    grounds: int
+    draws: int
+    components: int
+    cells: int
+    pixels: int
+    noise_work: float
+    """Element operations of each antenna's noise under every draw at every ground [-]."""
+    sky_work: float
+    """Multiply-adds of the sky integrals of every antenna at every ground (matrix products) [-]."""
+    memory_bytes: int
+    """The largest arrays held at once [B]."""
+
+    NOISE_OPS_PER_SECOND = 2e8
+    SKY_OPS_PER_SECOND = 2e9
+    """Rates these steps reach on one core, measured on the limits scenario of benchmarks/limits.py (a rough
+    scale: the estimate is for refusing what cannot finish, not a timer)."""
+
+    @property
+    def seconds(self) -> float:
+        return self.noise_work / self.NOISE_OPS_PER_SECOND + self.sky_work / self.SKY_OPS_PER_SECOND
+
+
+def size(sc) -> Size:
+    """The cost of a scenario's evaluation (:class:`Size`), from its dimensions alone."""
     u = sc.uncertainty
     nodes = len(ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None))
     deciles = u.noise_deciles or (u.local_sources and any(s.uncertainty_db > 0 for s in sc.noise.local))
     draws = u.samples if deciles else 1
     cells = len(sc.times.months) * len(sc.times.utc_hours)
-    per_target = [int(t.mask(sc.times).sum()) if u.hours else 1 for t in sc.target_times]
     comps = 3 + len(sc.noise.local)
-    samples = len(sc.antennas) * nodes * draws * sum(per_target)
-    held = 8 * (
-        2 * nodes * draws * cells + min(draws, DRAW_BLOCK) * comps * cells + 2 * nodes * draws * max(per_target)
-    )
-    return samples, held
+    pixels = 6 * sc.nside**2  # the upper hemisphere
+    ants = len(sc.antennas)
+    factors = draws * comps * cells
+    held = factors <= FACTORS_HELD  # else the level factors are computed again per antenna and ground (8x the cost)
+    memory = 8 * ((factors if held else DRAW_BLOCK * comps * cells) + 2 * nodes * draws * cells + 3 * cells * pixels)
+    noise = float(ants * nodes * factors * (1 if held else 8))
+    sky = float(ants * nodes * 3 * cells * pixels)
+    return Size(ants, nodes, draws, comps, cells, pixels, noise, sky, int(memory))
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,39 @@
+"""The documented limits (README: 64 candidates, targets and local sources, 12 x 24 month-hours, nside 128): a
+scenario at them is estimated before any work, runs within the stated bounds at the default samples
+(benchmarks/limits.py times it: 73 s and 1.6 GB measured on 2 cores), and one sized past them is refused up
+front with the estimate, naming the key that sizes it."""
+
+import importlib.util
+
+import pytest
+from click.testing import CliRunner
+
+from snrgain import pipeline
+from snrgain.cli.main import cli
+from snrgain.errors import TooLargeError
+from snrgain.scenario import load
+from snrgain.spread import size
+from tests.conftest import REPO
+
+
+def _limits_text() -> str:
+    spec = importlib.util.spec_from_file_location("limits", REPO / "benchmarks" / "limits.py")
+    mod = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(mod)
+    return mod.scenario()
+
+
+def test_the_documented_limits_are_within_the_bounds():
+    s = size(load(_limits_text()))
+    assert (s.antennas, s.cells, s.components, s.pixels) == (65, 288, 67, 6 * 128**2)
+    assert s.seconds < pipeline.MAX_SECONDS and s.memory_bytes < pipeline.MAX_MEMORY_BYTES
+
+
+def test_past_the_limits_is_refused_up_front_with_the_estimate(tmp_path):
+    path = tmp_path / "big.toml"
+    path.write_text(_limits_text() + "\n[uncertainty]\nsamples = 20000\n", encoding="utf-8")
+    with pytest.raises(TooLargeError, match=r"uncertainty\] samples \(to \d+ or fewer\)"):
+        pipeline.check_size(load(path))
+    res = CliRunner().invoke(cli, ["rank", str(path)])
+    assert res.exit_code == 2 and "Traceback" not in res.output
+    assert "would take about" in res.output and "--allow-long" in res.output
