@@ -152,14 +152,26 @@ def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> T
         ii = np.array([i for i, _, _ in cells])
         jj = np.array([j for _, j, _ in cells])
         if name in pickup:  # heard through the reference's pattern, then each antenna's share
-            t = np.atleast_2d(gains.caches[0].on(directions)) @ w.T / (4.0 * np.pi)  # (1, cells)
+            t = _product(np.atleast_2d(gains.caches[0].on(directions)), w) / (4.0 * np.pi)  # (1, cells)
             out[row, :, ii, jj] = (pickup[name][:, None] * t).T
         else:
             g = np.array([cache.on(directions) for cache in gains.caches])  # (antennas, directions)
-            out[row, :, ii, jj] = (g @ w.T / (4.0 * np.pi)).T
+            out[row, :, ii, jj] = (_product(g, w) / (4.0 * np.pi)).T
     for name, db in (strength_db or {}).items():
         out[index[name]] *= 10.0 ** (db / 10.0)
     return Temperatures(out, out.sum(axis=0))
+
+
+SMALL_PRODUCT = 20_000_000
+"""Below this many multiply-adds a product is summed by einsum in this thread: a multithreaded BLAS call costs
+more in waking its threads (and far more on a loaded machine) than such a product takes."""
+
+
+def _product(g: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """g @ w.T for gains (antennas, directions) and brightness (cells, directions)."""
+    if g.shape[0] * g.shape[1] * w.shape[0] <= SMALL_PRODUCT:
+        return np.einsum("ap,cp->ac", g, w)
+    return g @ w.T
 
 
 def front_to_back_toward(gains: Gains, targets) -> np.ndarray:
