@@ -25,7 +25,8 @@ Nothing is summed or averaged in dB over targets.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+import functools
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -149,51 +150,79 @@ def nearest_target(sc: Scenario, bearing_rad: float) -> int:
 @dataclass(frozen=True)
 class Products:
     """The nominal products of a set of antennas under one sky: the antennas ([reference, *candidates]), their
-    gains and their temperatures from every component."""
+    gains, their temperatures from every component, the powers they take from each placed source (name -> array)
+    and the ground those powers were worked on (None: the site's)."""
 
     antennas: tuple
     gains: snr.Gains
     temps: snr.Temperatures
+    powers: dict = field(default_factory=dict)
+    ground: object = None
 
 
 def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=None, known=None) -> Products:
     """Gains and temperatures of ``antennas`` (the reference first) under ``skies``; ``ground``: the soil under a
     placed source's field (default: the site's); ``strength_db``: see :func:`snrgain.snr.sky_temperatures`.
 
-    ``known``: products already made under the same sky; the gains of the antennas it holds (the same objects)
-    are taken from it, not computed again (a sweep's shared reference, a spread's antennas that keep their
-    ground)."""
+    ``known``: products already made under the same sky.  What they hold is taken from them, not worked again: the
+    gains of the same antennas or of the same antenna at another place (a sweep's reference, a spread's antennas
+    that keep their ground, a design placed around the lot), the power the same antennas take from a placed source
+    on the same ground, and, when every antenna is known and the reference is the same, the temperatures (only a
+    placed source's share is worked anew)."""
     antennas = tuple(antennas)
-    gains = _gains(sc, antennas, grid, known)
-    pick = placed.pickup(sc, antennas, ground=ground)
-    return Products(antennas, gains, snr.sky_temperatures(gains, skies, pickup=pick, strength_db=strength_db))
+    rows = _known_rows(antennas, known)
+    gains = _gains(sc, antennas, grid, known, rows)
+    same = known is not None and ground is known.ground
+    have = None
+    if same and known.powers:
+        same_obj = [j if j is not None and known.antennas[j] is a else None for a, j in zip(antennas, rows)]
+        have = {n: np.array([p[j] if j is not None else np.nan for j in same_obj]) for n, p in known.powers.items()}
+    shares, powers = placed.pickup(sc, antennas, ground=ground, powers=have)
+    if same and strength_db is None and None not in rows and antennas[0] is known.antennas[0] and rows[0] == 0:
+        by = known.temps.by_component[:, rows].copy()  # the sky rows are the gains' alone
+        for name, share in shares.items():
+            r = skies.names.index(name)
+            by[r] = known.temps.by_component[r, 0][None] * share[:, None, None]
+        temps = snr.Temperatures(by, by.sum(axis=0))
+    else:
+        temps = snr.sky_temperatures(gains, skies, pickup=shares, strength_db=strength_db)
+    return Products(antennas, gains, temps, powers, ground)
 
 
-def _gains(sc: Scenario, antennas: tuple, grid, known: Products | None) -> snr.Gains:
+def _known_rows(antennas: tuple, known: Products | None) -> list:
+    """For each antenna, the row of ``known`` holding it (the same object, or the same antenna at another place:
+    ``gain_key``), or None."""
     if known is None:
-        return snr.antenna_gains(antennas, sc.freq_hz, grid, sc.targets)
+        return [None] * len(antennas)
     rows = {id(a): j for j, a in enumerate(known.antennas)}
     for j, a in enumerate(known.antennas):
         key = a.gain_key()
         if key is not None:
             rows.setdefault(key, j)
-
-    def row(a):
-        j = rows.get(id(a))
-        return rows.get(a.gain_key()) if j is None else j
-
-    new = [a for a in antennas if row(a) is None]
-    fresh = iter(
-        zip(*(lambda g: (g.caches, g.toward, g.mean))(snr.antenna_gains(new, sc.freq_hz, grid, sc.targets)))
-        if new
-        else ()
-    )
-    parts = []
+    out = []
     for a in antennas:
-        j = row(a)
-        parts.append(next(fresh) if j is None else (known.gains.caches[j], known.gains.toward[j], known.gains.mean[j]))
-    caches, toward, mean = zip(*parts)
-    return snr.Gains(list(caches), np.array(toward).reshape(len(antennas), len(sc.targets)), np.array(mean))
+        j = rows.get(id(a))
+        out.append(rows.get(a.gain_key()) if j is None else j)
+    return out
+
+
+def _gains(sc: Scenario, antennas: tuple, grid, known: Products | None, rows: list) -> snr.Gains:
+    if known is None:
+        return snr.antenna_gains(antennas, sc.freq_hz, grid, sc.targets)
+    new = [a for a, j in zip(antennas, rows) if j is None]
+    fresh = snr.antenna_gains(new, sc.freq_hz, grid, sc.targets) if new else None
+    caches, toward, mean, i = [], [], [], 0
+    for j in rows:
+        if j is None:
+            caches.append(fresh.caches[i])
+            toward.append(fresh.toward[i])
+            mean.append(fresh.mean[i])
+            i += 1
+        else:
+            caches.append(known.gains.caches[j])
+            toward.append(known.gains.toward[j])
+            mean.append(known.gains.mean[j])
+    return snr.Gains(caches, np.array(toward).reshape(len(antennas), len(sc.targets)), np.array(mean))
 
 
 def snr_gains(sc: Scenario, p: Products) -> np.ndarray:
@@ -417,8 +446,16 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
 
 
 def target_masks(sc: Scenario) -> np.ndarray:
-    """Which (month, hour) cells of the scenario's grid each target is listened at, shape (targets, months, hours)."""
-    return np.array([t.mask(sc.times) for t in sc.target_times])
+    """Which (month, hour) cells of the scenario's grid each target is listened at, shape (targets, months, hours)
+    (read-only: shared by every call for the same times)."""
+    return _masks(sc.times, tuple(sc.target_times))
+
+
+@functools.lru_cache(maxsize=64)
+def _masks(times, target_times) -> np.ndarray:
+    out = np.array([t.mask(times) for t in target_times])
+    out.flags.writeable = False
+    return out
 
 
 LOBE_ELEVATION_DEG = 15.0

@@ -156,22 +156,32 @@ def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at
     return complex(rv[0] * ev[0]), complex(rh[0] * eh[0])
 
 
-def pickup(sc, antennas, *, ground=None) -> dict[str, np.ndarray]:
-    """Each placed source's share in each antenna relative to the first (the reference), P_A / P_ref (module
-    docstring), with a source's Fa measured elsewhere (``measured_at``) carried to the reference by the field
-    ratio: name -> array (antennas,).  ``ground``: the soil under the source's field (default: the site's).
-    An input of the integrator (:func:`snrgain.snr.sky_temperatures`); empty when no source is placed."""
+def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """(shares, powers) of each placed source in each antenna: its share relative to the first antenna (the
+    reference), P_A / P_ref (module docstring), with a source's Fa measured elsewhere (``measured_at``) carried to
+    the reference by the field ratio; and the powers P themselves.  Each is name -> array (antennas,).  ``ground``:
+    the soil under the source's field (default: the site's); ``powers``: name -> array with NaN where not known,
+    the powers already worked out (an antenna that has not moved).  An input of the integrator
+    (:func:`snrgain.snr.sky_temperatures`); empty when no source is placed."""
     placed = [s for s in sc.noise.local if s.position_m is not None]
     if not placed:
-        return {}
+        return {}, {}
     ground = sc.site.ground if ground is None else ground
     ref_m = antennas[0].params.position or (0.0, 0.0)
-    out = {}
+    shares, out_powers = {}, {}
     for src in placed:
-        powers = np.array([received_power(a, src, sc.freq_hz, ref_m, ground) for a in antennas])
-        if not powers[0] > 0:
+        have = None if powers is None else powers.get(src.name)
+        p = np.array(
+            [
+                have[k]
+                if have is not None and np.isfinite(have[k])
+                else received_power(a, src, sc.freq_hz, ref_m, ground)
+                for k, a in enumerate(antennas)
+            ]
+        )
+        if not p[0] > 0:
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
-        scale = powers / powers[0]
+        scale = p / p[0]
         if src.measured_at_m is not None:  # Fa given where it was measured, not at the reference
             e_ref = source_field(src, np.array([ref_m]), sc.freq_hz, ground)
             e_at = source_field(src, np.array([src.measured_at_m]), sc.freq_hz, ground)
@@ -180,5 +190,5 @@ def pickup(sc, antennas, *, ground=None) -> dict[str, np.ndarray]:
                 * (np.abs(e_ref[0][0]) ** 2 + np.abs(e_ref[1][0]) ** 2)
                 / (np.abs(e_at[0][0]) ** 2 + np.abs(e_at[1][0]) ** 2)
             )
-        out[src.name] = scale
-    return out
+        shares[src.name], out_powers[src.name] = scale, p
+    return shares, out_powers
