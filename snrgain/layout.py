@@ -123,8 +123,9 @@ class Problem:
 
             self.tx = Point(*self.ref_m)
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
-        fixed = [a for a in sc.candidates if a.name not in self.names and a.long_wire]
-        self.fixed_wires = [w for w in map(footprint, fixed) if w is not None]
+        fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in self.names and a.long_wire]
+        self.fixed_names = [n for n, w in fixed if w is not None]
+        self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
 
     # -- one candidate ----------------------------------------------------------------------------------------
@@ -189,24 +190,58 @@ class Problem:
         end = (d.east_m + d.length_m * np.sin(d.bearing_rad), d.north_m + d.length_m * np.cos(d.bearing_rad))
         return LineString([(d.east_m, d.north_m), end])
 
-    def violation_m(self, d: Design, others=()) -> float:
-        """How far a design breaks the rules [m]: outside the lot, inside keep-outs, short of the TX clearance,
-        closer than WIRE_SEPARATION_M to other wires (10 m a crossing); 0 when it keeps them all."""
+    def violations(self, d: Design, others=()) -> dict[str, float]:
+        """How far a design breaks each rule [m], by the rule and what it names: outside the lot, inside a keep-out
+        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing); only the
+        rules it breaks."""
         shape = self.footprint(d)
+        out = {}
         v = (
             shape.difference(self.lot).length
             if shape.length > 0
             else (0.0 if self.lot.covers(shape) else 1.0 + self.lot.exterior.distance(shape))
         )
-        for k in self.keep:
+        out["the lot's outline"] = v
+        for (name, _), k in zip(self.sc.site.keep_out, self.keep):
             inter = shape.intersection(k)
-            v += inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
+            out[f"keep-out area {name!r}"] = inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
         if self.tx is not None:
-            v += max(0.0, self.clearance - shape.distance(self.tx))
-        for w in list(self.fixed_wires) + [self.footprint(o) for o in others]:
+            out[f"{self.clearance:.0f} m from the transmitting vertical"] = max(
+                0.0, self.clearance - shape.distance(self.tx)
+            )
+        wires = list(zip(self.fixed_names, self.fixed_wires)) + [(o.name, self.footprint(o)) for o in others]
+        for name, w in wires:
             if shape.length > 0 and w.length > 0:
-                v += 10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
-        return float(v)
+                out[f"{WIRE_SEPARATION_M:g} m from the wire {name!r}"] = (
+                    10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
+                )
+        return {k: float(x) for k, x in out.items() if x > 0}
+
+    def violation_m(self, d: Design, others=()) -> float:
+        """How far a design breaks the rules [m] (the sum of :meth:`violations`); 0 when it keeps them all."""
+        return float(sum(self.violations(d, others).values()))
+
+    def feasible(self, i: int) -> list[Design]:
+        """Candidate i's designs on the grid that keep every rule, from geometry alone (no SNR worked out); a
+        ValueError naming the rules that bind, most binding first, when there is none."""
+        pairs, points = self.grid_designs(i)
+        designs = [Design(self.names[i], e, n, b, ln) for b, ln in pairs for e, n in points]
+        found, blocked = [], {}
+        for d in designs:
+            broken = self.violations(d)
+            if not broken:
+                found.append(d)
+            for rule in broken:
+                blocked[rule] = blocked.get(rule, 0) + 1
+        if not found:
+            ranked = sorted(blocked.items(), key=lambda kv: -kv[1])
+            rules = "; ".join(f"{rule} ({100 * n / len(designs):.0f} %)" for rule, n in ranked[:4])
+            raise ValueError(
+                f"candidate {self.names[i]!r}: none of the {len(designs)} places tried on the lot keeps every rule "
+                f"with these bearing and length ranges; the share of places each rule rules out: {rules}. Loosen the "
+                "rule that binds most (move or shorten that wire, narrow the ranges, or widen the lot)"
+            )
+        return found
 
     # -- search -----------------------------------------------------------------------------------------------
 
@@ -243,26 +278,20 @@ class Problem:
     def search(self, *, progress=None, keep: int = 3) -> list[Layout]:
         """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
         per = []
-        grids = [self.grid_designs(i) for i in range(len(self.names))]
-        total = sum(len(g[0]) for g in grids)
+        feasible = [self.feasible(i) for i in range(len(self.names))]  # geometry first: a dead end says so at once
+        total = sum(len(f) for f in feasible)
         done = 0
-        for i, (pairs, points) in enumerate(grids):
+        for i, designs in enumerate(feasible):
             found = []
-            for b, ln in pairs:
-                for e, n in points:
-                    d = Design(self.names[i], e, n, b, ln)
-                    if self.violation_m(d) == 0.0:
-                        found.append((self.snr_gain_db(d, i), d))
+            for d in designs:
+                found.append((self.snr_gain_db(d, i), d))
                 done += 1
-                if progress is not None:
+                if progress is not None and done % 50 == 0:
                     progress(done, total)
-            if not found:
-                raise ValueError(
-                    f"candidate {self.names[i]!r}: no place on the lot keeps it inside, out of the keep-out areas "
-                    f"and {self.clearance:.0f} m from the transmitting vertical with these ranges"
-                )
+            if progress is not None:
+                progress(done, total)
             found.sort(key=lambda x: -x[0])
-            top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(grids))))
+            top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(feasible))))
             per.append(_distinct(found, min(TOP_PER_CANDIDATE, top)))
         # Every combination of the kept designs, best total first, until enough keep clear of one another.
         import itertools

@@ -101,3 +101,60 @@ def test_layout_bad_input(edit, message, tmp_path):
     p.write_text(text)
     res = CliRunner().invoke(cli, ["layout", str(p)])
     assert res.exit_code == 2 and message in res.stderr and "Traceback" not in res.output
+
+
+BLOCKED = """
+[site]
+name = "Narrow Strip"
+latitude = 44.2
+longitude = -71.3
+ground = "moist loam"
+lot = [[0, -12], [400, -12], [400, 12], [0, 12]]
+tx_clearance = "5 m"
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[[target]]
+name = "East"
+bearing = 90
+elevation = [10, 25]
+
+[reference]
+name = "TX vertical"
+family = "vertical"
+height = "40 m"
+position = [0, 0]
+
+[[candidate]]
+name = "old Beverage"
+family = "beverage"
+length = "300 m"
+height = "2 m"
+bearing = 90
+position = ["50 m", "0 m"]
+
+[[candidate]]
+name = "new Beverage"
+family = "beverage"
+length = "200 m"
+height = "2 m"
+bearing = 90
+place = { bearing = ["85 deg", "95 deg"], length = ["150 m", "200 m"] }
+"""
+
+
+def test_a_dead_end_is_found_from_geometry_and_names_the_wire_that_binds(monkeypatch):
+    # A 24 m strip of lot with a fixed Beverage down its middle: no new wire can keep 10 m from it.  The search
+    # says so before any SNR is worked out, and names that wire as the rule that binds.
+    import tomllib
+
+    data = tomllib.loads(BLOCKED)
+    pr = Problem(load(data), data)
+    monkeypatch.setattr(pr, "snr_gain_db", lambda *a: pytest.fail("scored a design before checking the geometry"))
+    with pytest.raises(ValueError, match=r"rules out: 10 m from the wire 'old Beverage' \(\d+ %\); the lot"):
+        pr.search()
