@@ -1,17 +1,128 @@
-"""Writing output files whole or not at all.
+"""Reading input files within limits, and writing output files whole or not at all.
+
+Every file snrgain reads goes through :func:`read_limited`: it must be a regular file (not a device such as
+``/dev/zero``, a pipe or a folder) no larger than the reader's limit, checked before any byte is read.
 
 Every file snrgain writes goes through :func:`write_atomic`: the content is
 written to a temporary file in the same folder, then renamed over the target,
 so a reader never sees half a file and an interrupted run leaves the old file
-(or none).  An existing file is replaced only when ``overwrite`` is true.
+(or none).  An existing file is replaced only when ``overwrite`` is true.  A set of files (the figures) goes
+through :func:`write_set`: written into a temporary folder beside the targets, then moved into place together.
+Temporary files and folders are named ``.snrgain-tmp-<process id>-...``; one left by a process that no longer
+runs (killed with SIGKILL, or the machine stopped) is removed the next time snrgain writes into that folder.
 """
 
 from __future__ import annotations
 
 import os
+import re
+import shutil
+import signal
+import stat
 import tempfile
 from collections.abc import Callable
 from pathlib import Path
+
+TMP_PREFIX = ".snrgain-tmp-"
+"""The start of every temporary file or folder snrgain makes beside its outputs."""
+_TMP_NAME = re.compile(re.escape(TMP_PREFIX) + r"(\d+)-")
+
+
+class InputFileError(ValueError):
+    """A file that is not read: not a regular file, too large, or unreadable; the message names it and the limit."""
+
+
+def read_limited(path: str | Path, *, limit_bytes: int, what: str = "file") -> bytes:
+    """The bytes of ``path``, refused up front unless it is a regular file of at most ``limit_bytes``.
+
+    The file is opened without blocking (a named pipe with no writer does not hang) and checked by ``fstat`` on
+    the open descriptor, so what is checked is what is read; at most ``limit_bytes + 1`` bytes are ever read
+    (a file that grows meanwhile is refused too).
+    """
+    p = Path(path)
+    try:
+        fd = os.open(p, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError as exc:
+        raise InputFileError(f"{p}: cannot read the {what} ({exc.strerror or exc})") from None
+    try:
+        st = os.fstat(fd)
+        if not stat.S_ISREG(st.st_mode):
+            kind = "a folder" if stat.S_ISDIR(st.st_mode) else "a device, a pipe or a socket"
+            raise InputFileError(f"{p}: the {what} is {kind}, not a regular file; give a file")
+        if st.st_size > limit_bytes:
+            raise InputFileError(f"{p}: the {what} is {st.st_size:,} bytes; at most {_size(limit_bytes)} is read")
+        chunks, total = [], 0
+        while total <= limit_bytes:
+            chunk = os.read(fd, min(1 << 20, limit_bytes + 1 - total))
+            if not chunk:
+                break
+            chunks.append(chunk)
+            total += len(chunk)
+        if total > limit_bytes:
+            raise InputFileError(f"{p}: the {what} grew beyond {_size(limit_bytes)} while it was read")
+        return b"".join(chunks)
+    except OSError as exc:
+        raise InputFileError(f"{p}: cannot read the {what} ({exc.strerror or exc})") from None
+    finally:
+        os.close(fd)
+
+
+def _size(n: int) -> str:
+    return f"{n / 1e6:g} MB" if n >= 1_000_000 else f"{n / 1e3:g} kB"
+
+
+def _alive(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:  # exists, owned by someone else
+        return True
+    return True
+
+
+def remove_stale(folder: str | Path) -> list[Path]:
+    """Remove the temporary files and folders (``.snrgain-tmp-<pid>-...``) that processes no longer running left
+    in ``folder``; returns what was removed.  Those of running processes (another snrgain writing) are kept."""
+    removed = []
+    try:
+        entries = list(os.scandir(folder))
+    except OSError:
+        return removed
+    for entry in entries:
+        m = _TMP_NAME.match(entry.name)
+        if m is None or _alive(int(m.group(1))):
+            continue
+        try:
+            if entry.is_dir(follow_symlinks=False):
+                shutil.rmtree(entry.path)
+            else:
+                os.unlink(entry.path)
+            removed.append(Path(entry.path))
+        except OSError:
+            pass
+    return removed
+
+
+def _tmp_prefix(name: str) -> str:
+    return f"{TMP_PREFIX}{os.getpid()}-{name}."
+
+
+class _SignalsHeld:
+    """SIGINT and SIGTERM held back (delivered on leaving) while a few renames put a set of files in place."""
+
+    def __enter__(self):
+        self._old = None
+        if hasattr(signal, "pthread_sigmask"):
+            self._old = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT, signal.SIGTERM})
+        return self
+
+    def __exit__(self, *exc):
+        if self._old is not None:
+            signal.pthread_sigmask(signal.SIG_SETMASK, self._old)
+        return False
 
 
 class OutputExistsError(FileExistsError):
@@ -48,7 +159,8 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
     handler), the temporary file is removed and the old file stays as it was.
     """
     p = check_writable(path, overwrite=overwrite)
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=p.suffix, dir=p.parent)
+    remove_stale(p.parent)
+    fd, tmp = tempfile.mkstemp(prefix=_tmp_prefix(p.name), suffix=p.suffix, dir=p.parent)
     tmp_path = Path(tmp)
     try:
         if callable(content):
@@ -72,3 +184,32 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
         tmp_path.unlink(missing_ok=True)
         raise
     return p
+
+
+def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *, overwrite: bool = False) -> list[Path]:
+    """Write several files into ``folder`` as one set: all new ones or, interrupted, the old ones.
+
+    ``writers`` maps each file name to a function that writes the file at the path it is given.  Every target is
+    checked first (existing files need ``overwrite``); the files are written into a temporary folder beside them,
+    then renamed into place with SIGINT and SIGTERM held back, so a Ctrl-C or a kill leaves the old set (or the
+    new one) whole.  Only SIGKILL or a power cut during the renames (microseconds) can leave a mix.  Returns the
+    paths written.
+    """
+    d = Path(folder)
+    if not d.is_dir():
+        raise FileNotFoundError(f"folder {d} does not exist")
+    targets = [check_writable(d / name, overwrite=overwrite) for name in writers]
+    remove_stale(d)
+    tmp_dir = Path(tempfile.mkdtemp(prefix=_tmp_prefix("set"), dir=d))
+    try:
+        for name, write in writers.items():
+            write(tmp_dir / name)
+        with _SignalsHeld():
+            for name, target in zip(writers, targets):
+                src = tmp_dir / name
+                if target.is_file():
+                    os.chmod(src, target.stat().st_mode & 0o7777)
+                os.replace(src, target)
+    finally:
+        shutil.rmtree(tmp_dir, ignore_errors=True)
+    return targets

@@ -1052,14 +1052,12 @@ MAX_FILE_BYTES = 5_000_000
 
 def read_text_file(path: Path) -> str:
     """The UTF-8 text of a scenario or readings file; ScenarioError if unreadable, too large or not UTF-8."""
+    from snrgain.files import InputFileError, read_limited
+
     try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise ScenarioError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
-    if len(raw) > MAX_FILE_BYTES:
-        raise ScenarioError(
-            str(path), [("", f"the file is {len(raw)} bytes; at most {MAX_FILE_BYTES // 1_000_000} MB is read")]
-        )
+        raw = read_limited(path, limit_bytes=MAX_FILE_BYTES, what="file")
+    except InputFileError as exc:
+        raise ScenarioError(str(path), [("", str(exc).removeprefix(f"{path}: "))]) from None
     return decode_text(raw, str(path))
 
 

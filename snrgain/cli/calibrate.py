@@ -7,7 +7,14 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import emit_json, handle_errors, readings_preamble, scenario_copy_options, write_output
+from snrgain.cli.options import (
+    emit_json,
+    handle_errors,
+    read_scenario_text,
+    readings_preamble,
+    scenario_copy_options,
+    write_output,
+)
 
 
 @click.command("calibrate")
@@ -62,7 +69,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
     if into is not None and scenario is None:
         raise click.UsageError("--into goes with --scenario and --write")
     if scenario is not None:
-        text = Path(scenario).read_text(encoding="utf-8")
+        text = read_scenario_text(scenario)
         if into is None:
             new = cal.with_ground(text, res.fit.scenario_value())
         else:

@@ -11,6 +11,7 @@ from snrgain.cli.options import (
     emit_json,
     handle_errors,
     plot_option,
+    read_scenario_text,
     readings_preamble,
     scenario_copy_options,
     write_output,
@@ -75,7 +76,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
         plots.save(plots.located_sources(res), plot, overwrite=overwrite)
         out["plot"] = plot
     if scenario is not None:
-        text = Path(scenario).read_text(encoding="utf-8")
+        text = read_scenario_text(scenario)
         write_output(
             write_to,
             loc.with_sources(text, res, at_m=data.at_m, distances_m=data.distances_m, name=name),

@@ -32,17 +32,32 @@ def cli():
     """
 
 
-def _end_cleanly_on_sigterm() -> None:
-    """A SIGTERM (kill) ends the command as Ctrl-C does, so that files being written are cleaned up."""
+class Interrupted(BaseException):
+    """Ctrl-C or SIGTERM: raised in the main thread by the handlers :func:`main` installs, caught there only.
+
+    A BaseException that is not a KeyboardInterrupt, so neither library code (``except Exception``) nor click
+    (which turns a KeyboardInterrupt into "Aborted!" and exit 1) swallows it on the way out; ``finally`` blocks and
+    the file writers' clean-up still run."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _interrupt_on_signals() -> None:
+    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Interrupted`; a second signal while the first unwinds is ignored."""
     import signal
 
     def handler(signum, frame):
-        raise KeyboardInterrupt
+        for sig in (signal.SIGINT, signal.SIGTERM):
+            signal.signal(sig, signal.SIG_IGN)
+        raise Interrupted(signum)
 
-    try:
-        signal.signal(signal.SIGTERM, handler)
-    except ValueError:  # not the main thread (e.g. under a test runner's thread)
-        pass
+    for sig in (signal.SIGINT, signal.SIGTERM):
+        try:
+            signal.signal(sig, handler)
+        except ValueError:  # not the main thread (e.g. under a test runner's thread)
+            pass
 
 
 cli.add_command(rank)
@@ -64,8 +79,21 @@ def main() -> None:
 
     # Floating-point warnings name source lines, which say nothing to a user; results carry their own checks.
     warnings.filterwarnings("ignore", category=RuntimeWarning)
-    _end_cleanly_on_sigterm()
-    cli()
+    _interrupt_on_signals()
+    try:
+        cli()
+    except Interrupted as exc:
+        import signal
+        import sys
+
+        name = "SIGTERM" if exc.signum == signal.SIGTERM else "Ctrl-C"
+        try:
+            sys.stderr.write(f"\nsnrgain: stopped by {name}; no output was left half-written\n")
+            sys.stderr.flush()
+        except (OSError, ValueError):
+            pass
+        # The shell's convention: 128 + the signal's number (130 for Ctrl-C, 143 for SIGTERM).
+        sys.exit(128 + int(exc.signum))
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -6,9 +6,11 @@ Diagnostics go to stderr, results to stdout.  Exit codes: 2 for bad input
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import json
 import sys
+from collections.abc import Iterator
 from pathlib import Path
 
 import click
@@ -37,6 +39,58 @@ def plot_option(what: str):
     )
 
 
+def show_progress() -> bool:
+    """Whether to draw progress: only when stderr is a terminal (never into a pipe, a log or a test's capture)."""
+    try:
+        return sys.stderr.isatty()
+    except (AttributeError, ValueError):
+        return False
+
+
+class Progress:
+    """What :func:`progress` yields: ``step(n=1)`` as work is done, or ``step.update(done, total)``."""
+
+    def __init__(self, bar=None, task=None):
+        self._bar, self._task = bar, task
+
+    def __call__(self, n: int = 1) -> None:
+        if self._bar is not None:
+            self._bar.advance(self._task, n)
+
+    def update(self, done: int, total: int | None = None) -> None:
+        if self._bar is not None:
+            self._bar.update(self._task, completed=done, **({} if total is None else {"total": total}))
+
+
+@contextlib.contextmanager
+def progress(total: int | None, what: str) -> Iterator[Progress]:
+    """Progress of a step that can take over a second, drawn with rich on stderr when it is a terminal.
+
+    ``total``: the count of work announced up front (designs, readings, figures), or None for a step whose size
+    is not known (a spinner with the time taken).  Yields a :class:`Progress` to call as work is done; with no
+    terminal it draws nothing (nothing reaches a pipe, a log or a test's captured output).
+
+        with progress(len(jobs), "figures") as step:
+            for job in jobs:
+                ...
+                step()
+    """
+    if not show_progress():
+        yield Progress()
+        return
+    from rich.console import Console
+    from rich.progress import BarColumn, MofNCompleteColumn, SpinnerColumn, TextColumn, TimeElapsedColumn
+    from rich.progress import Progress as Bar
+
+    columns = [SpinnerColumn(), TextColumn("{task.description}")]
+    if total is not None:
+        columns += [BarColumn(), MofNCompleteColumn()]
+    columns.append(TimeElapsedColumn())
+    with Bar(*columns, console=Console(stderr=True), transient=True) as bar:
+        label = f"{what} ({total:,})" if total is not None else what
+        yield Progress(bar, bar.add_task(label, total=total))
+
+
 def fail(message: str, code: int) -> None:
     click.echo(f"snrgain: {message}", err=True)
     sys.exit(code)
@@ -54,8 +108,8 @@ def handle_errors(fn):
 
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
             sys.exit(EXIT_FAILURE)
-        except KeyboardInterrupt:
-            fail("interrupted; nothing was written", EXIT_FAILURE)
+        except KeyboardInterrupt:  # Ctrl-C outside the `snrgain` entry point (which raises its own Interrupted)
+            fail("interrupted; no output was left half-written", 130)
         except OutputExistsError as exc:
             fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
         except ReadingsError as exc:
@@ -119,6 +173,13 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
     if (scenario is None) != (write_to is None):
         raise click.UsageError("--scenario and --write go together")
     return False
+
+
+def read_scenario_text(path) -> str:
+    """A scenario's text to copy (calibrate, locate, layout --write): a regular UTF-8 file within the size limit."""
+    from snrgain.scenario import read_text_file
+
+    return read_text_file(Path(path))
 
 
 def emit_json(data) -> None:
