@@ -6,6 +6,7 @@ import click
 import numpy as np
 
 from snrgain.cli.options import (
+    FiniteRange,
     check_output,
     emit_json,
     handle_errors,
@@ -18,12 +19,8 @@ from snrgain.constants import MAN_MADE_CHOICES
 
 
 @click.command("noise")
-@click.option(
-    "--lat", "lat", type=click.FloatRange(-90, 90), required=True, help="Site latitude [deg, north positive]."
-)
-@click.option(
-    "--lon", "lon", type=click.FloatRange(-180, 360), required=True, help="Site longitude [deg, east positive]."
-)
+@click.option("--lat", "lat", type=FiniteRange(-90, 90), required=True, help="Site latitude [deg, north positive].")
+@click.option("--lon", "lon", type=FiniteRange(-180, 360), required=True, help="Site longitude [deg, east positive].")
 @click.option("--month", type=click.IntRange(1, 12), required=True, help="Month, 1-12.")
 @click.option("--frequency", required=True, help="Frequency with its unit, e.g. '1.83 MHz'.")
 @click.option(
@@ -36,7 +33,7 @@ from snrgain.constants import MAN_MADE_CHOICES
 @click.option("--galactic/--no-galactic", default=True, show_default=True, help="Include galactic noise.")
 @click.option(
     "--hour",
-    type=click.FloatRange(0, 24, max_open=True),
+    type=FiniteRange(0, 24, max_open=True),
     default=4.0,
     show_default=True,
     help="UTC hour for the direction distribution of atmospheric noise.",

@@ -22,6 +22,32 @@ from snrgain.units import QuantityError
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
 
+
+class FiniteRange(click.FloatRange):
+    """A number option within a range that also refuses nan and inf (click's FloatRange lets nan through: every
+    comparison with nan is false), and reads the digits of any script as the number they show."""
+
+    name = "number"
+
+    def convert(self, value, param, ctx):
+        import math
+
+        if isinstance(value, str):
+            from snrgain.units import QuantityError, normalise_text
+
+            try:
+                value = normalise_text(value).strip()
+            except QuantityError as exc:
+                self.fail(str(exc), param, ctx)
+        try:
+            x = float(value)
+        except (TypeError, ValueError):
+            self.fail(f"{value!r} is not a number", param, ctx)
+        if not math.isfinite(x):
+            self.fail(f"{value!r} is not a finite number; give a number within {self._describe_range()}", param, ctx)
+        return super().convert(x, param, ctx)
+
+
 scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=Path))
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
 nside_option = click.option(
