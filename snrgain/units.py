@@ -54,8 +54,10 @@ _NUMBER = r"[-+]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][-+]?[0-9]{1,3})?"
 _WORD = r"[A-Za-z\u00b0\u00b5\u03bc\u03a9]+"
 _QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*({_WORD}(?:\s*/\s*{_WORD})?)?\s*$")
 _MINUS_SIGNS = {"\u2212": "-", "\u2012": "-", "\u2013": "-", "\ufe63": "-", "\uff0d": "-"}
-_CASE_SENSITIVE = frozenset("mMsS")
-"""Letters whose case changes a unit's meaning (milli or mega, second or siemens): never folded."""
+_PREFIX_CASE = frozenset("mM")
+"""Prefix letters whose case changes a unit's meaning (milli or mega): never folded."""
+_SIEMENS_DIMENSIONS = frozenset({"conductivity", "time"})
+"""Dimensions where 's' and 'S' (second, siemens) must not be folded into each other."""
 
 
 def normalise_text(value: str) -> str:
@@ -184,12 +186,16 @@ def _unit_scale(unit: str, dimension: str) -> float:
     key = re.sub(r"\s+", "", unit)
     if key in table:
         return table[key]
-    # Letter case is forgiven only where it cannot change the meaning: "FT", "Ohm", "khz" are read, but
+    # Letter case is forgiven only where it cannot change the meaning: "FT", "OHM", "khz" are read, but
     # "Mm" (megametre, not mm), "mohm" (milliohm, not Mohm), "MS/m" or "ms/m" (not mS/m) are refused.
     folded = [k for k in table if k.lower() == key.lower()]
     if len(folded) == 1:
         canon = folded[0]
-        if all(a == b or (a not in _CASE_SENSITIVE and b not in _CASE_SENSITIVE) for a, b in zip(canon, key)):
+        prefix_kept = canon[0] == key[0] or canon[0] not in _PREFIX_CASE
+        siemens_kept = dimension not in _SIEMENS_DIMENSIONS or all(
+            a == b for a, b in zip(canon, key) if a in "sS" or b in "sS"
+        )
+        if prefix_kept and siemens_kept:
             return table[canon]
         raise QuantityError(
             f"unit {unit!r} is ambiguous: the case of m/M (milli, mega) and s/S (second, siemens) matters; "
