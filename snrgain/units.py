@@ -60,7 +60,7 @@ _SIEMENS_DIMENSIONS = frozenset({"conductivity", "time"})
 """Dimensions where 's' and 'S' (second, siemens) must not be folded into each other."""
 
 
-def normalise_text(value: str) -> str:
+def normalise_text(value: str, what: str = "a number") -> str:
     """A user's number and unit in the plain characters the grammar reads.
 
     Decimal digits of any script ("\u0663", "\uff14\uff10", "\U0001d7d3") become the ASCII digits they show, a
@@ -77,7 +77,9 @@ def normalise_text(value: str) -> str:
         if cat == "Nd":
             out.append(str(unicodedata.decimal(ch)))
         elif cat in ("No", "Nl"):
-            raise QuantityError(f"cannot read {value!r}: {ch!r} is not a decimal digit; write plain digits like 12.5")
+            raise QuantityError(
+                f"cannot read {value!r} as {what}: {ch!r} is not a decimal digit; write plain digits like 12.5"
+            )
         elif ch in _MINUS_SIGNS:
             out.append("-")
         else:
@@ -158,7 +160,7 @@ def parse_quantity(value, dimension: str) -> float:
     si_unit, example, bare_ok = DIMENSIONS[dimension]
     _reject_non_text(value, dimension, example)
     if isinstance(value, str):
-        m = _QUANTITY.match(normalise_text(value))
+        m = _QUANTITY.match(normalise_text(value, dimension))
         if m is None:
             raise QuantityError(f"cannot read {value!r} as {dimension}: write a number and one unit, like {example}")
         number, unit = float(m.group(1)), m.group(2)
@@ -198,7 +200,7 @@ def _unit_scale(unit: str, dimension: str) -> float:
         if prefix_kept and siemens_kept:
             return table[canon]
         raise QuantityError(
-            f"unit {unit!r} is ambiguous: the case of m/M (milli, mega) and s/S (second, siemens) matters; "
+            f"{dimension} unit {unit!r} is ambiguous: the case of m/M (milli, mega) and s/S (second, siemens) matters; "
             f"did you mean {canon!r}? Use one of {', '.join(table)}"
         )
     for other, units in UNITS.items():
@@ -212,7 +214,7 @@ def parse_attenuation_db_per_100m(value) -> float:
     example = "'2 dB/100m' or '0.6 dB/100ft'"
     _reject_non_text(value, "an attenuation", example)
     if isinstance(value, str):
-        m = _ATTENUATION.match(normalise_text(value))
+        m = _ATTENUATION.match(normalise_text(value, "an attenuation"))
         if m is None:
             raise QuantityError(f"expected an attenuation such as {example}, got {value!r}")
         per = re.sub(r"\s+", "", m.group(2) or "100m").lower()
@@ -249,7 +251,7 @@ def parse_power_dbm(value) -> float:
 
 def _power_dbm(value) -> float:
     if isinstance(value, str):
-        value = normalise_text(value)
+        value = normalise_text(value, "a power")
         m = _DBM.match(value)
         if m:
             return float(m.group(1))
@@ -285,7 +287,7 @@ def parse_db(value) -> float:
     if isinstance(value, (int, float)):
         x = float(value)
     elif isinstance(value, str):
-        value = normalise_text(value)
+        value = normalise_text(value, "a value in dB")
         m = _DB.match(value)
         if m:
             x = float(m.group(1))
