@@ -165,6 +165,10 @@ def _connection(value, info: ValidationInfo):
             first = err.errors()[0]
             where = ".".join(str(p) for p in first["loc"])
             raise ValueError(f"{where}: {first['msg'].removeprefix('Value error, ')}") from None
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        from snrgain.problems import toml_repr
+
+        raise ValueError(f"expected {_CONNECTION_CHOICES}; got {toml_repr(value)}")
     try:
         return _CONNECTION_RESISTANCE(value, info)
     except ValueError as err:

@@ -314,9 +314,7 @@ class Target(StrictModel):
     def _range(cls, v):
         if v is None:
             return v
-        if not isinstance(v, list):
-            v = [v, v]
-        if len(v) != 2:
+        if not isinstance(v, list) or len(v) != 2:
             raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {v!r}")
         return v
 
@@ -900,7 +898,13 @@ def _local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteS
         for ant, where in zip(antennas, wheres):
             if ant.family == "combination":
                 continue
-            gap = min(_gap_m(point, shape) for shape in _antenna_outline(ant, ref_m))
+            gaps = []
+            for shape in _antenna_outline(ant, ref_m):
+                gap = _gap_m(point, shape)
+                if shape.ndim == 2 and hasattr(ant, "wire_height_m"):  # along a wire: the distance in space
+                    gap = float(np.hypot(gap, ant.wire_height_m() - src.height_m))
+                gaps.append(gap)
+            gap = min(gaps)
             if gap < MIN_SOURCE_GAP_M:
                 key = "position" if raw.position is not None else "latitude"
                 out.append(
