@@ -403,15 +403,14 @@ def test_a_hundred_readings_are_refused_at_once(tmp_path):
 # -- interruptions --------------------------------------------------------------------------------------------
 
 
-def _start(args, **kw):
+def _start(args, stderr_fd=None):
     env = {**os.environ, "PYTHONPATH": str(REPO)}
     return subprocess.Popen(
         [sys.executable, "-m", "snrgain.cli.main", *args],
         stdout=subprocess.PIPE,
-        stderr=subprocess.PIPE,
+        stderr=subprocess.PIPE if stderr_fd is None else stderr_fd,
         cwd=REPO,
         env=env,
-        **kw,
     )
 
 
@@ -491,3 +490,26 @@ def test_no_progress_is_drawn_where_stderr_is_not_a_terminal(tmp_path):
     res = CliRunner().invoke(cli, ["rank", str(scenario), "--format", "json"])
     assert res.exit_code == 0
     assert "evaluating" not in res.stderr and "\x1b[" not in res.stderr
+
+
+@pytest.mark.skipif(not hasattr(os, "openpty"), reason="no pseudo-terminals here")
+def test_progress_is_drawn_on_a_terminal_and_stdout_stays_clean(tmp_path):
+    scenario = tmp_path / "s.toml"
+    scenario.write_text(MINIMAL, encoding="utf-8")
+    main, sub = os.openpty()
+    proc = _start(["rank", str(scenario), "--format", "json"], stderr_fd=sub)
+    os.close(sub)
+    drawn = b""
+    while True:
+        try:
+            chunk = os.read(main, 4096)
+        except OSError:  # the terminal closes when the command ends
+            break
+        if not chunk:
+            break
+        drawn += chunk
+    stdout, _ = proc.communicate(timeout=60)
+    os.close(main)
+    assert proc.returncode == 0
+    assert b"rank: evaluating" in drawn  # on the terminal ...
+    assert b"evaluating" not in stdout and "reference" in __import__("json").loads(stdout)  # ... never in the results

@@ -13,6 +13,7 @@ from snrgain.cli.options import (
     json_text,
     overwrite_option,
     p372_dir_option,
+    progress,
     write_output,
 )
 from snrgain.constants import MAN_MADE_CHOICES
@@ -70,9 +71,10 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
         f = check_frequency_hz(parse_quantity(frequency, "frequency"))
     except ValueError as exc:
         raise ValueError(f"--frequency: {exc}") from None
-    data = noise_over_day(
-        lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
-    )
+    with progress(None, "noise: 24 hours and the storms' directions"):
+        data = noise_over_day(
+            lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
+        )
     if output is not None:
         write_output(output, json_text(data), overwrite=overwrite)
         return

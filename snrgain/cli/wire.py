@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from snrgain.cli.options import FiniteRange, emit_json, handle_errors
+from snrgain.cli.options import FiniteRange, emit_json, handle_errors, progress
 from snrgain.constants import WIRE_FAMILIES
 
 
@@ -98,7 +98,8 @@ def wire(
         coax=int(coax),
         depth=depth,
     )
-    out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
+    with progress(None, "wire: line constants, length and termination"):
+        out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
     if fmt == "json":
         emit_json(out)
         return
