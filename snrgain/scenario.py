@@ -620,6 +620,17 @@ def load(
         model = None
     if model is not None:
         problems.extend(_unique_names(model))
+        n = model.noise
+        quiet = n.man_made.environment == "none" and n.atmospheric.model == "none"
+        if quiet and not n.galactic.enabled and not n.local:
+            problems.append(
+                (
+                    "noise",
+                    "every noise component is off (man-made environment 'none', atmospheric model 'none', galactic "
+                    "disabled, no local sources): with no sky noise the SNR is the receiver's alone and the margins "
+                    "are infinite; turn at least one on",
+                )
+            )
 
     # Antennas are validated by their own families (even when other sections failed).
     site_ground = _raw_ground(data.get("site", {})) if isinstance(data, dict) else "moist loam"
