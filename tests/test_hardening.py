@@ -521,3 +521,13 @@ def test_progress_is_drawn_on_a_terminal_and_stdout_stays_clean(tmp_path):
     assert proc.returncode == 0
     assert b"rank: evaluating" in drawn  # on the terminal ...
     assert b"evaluating" not in stdout and "reference" in __import__("json").loads(stdout)  # ... never in the results
+
+
+def test_a_reversed_place_range_is_refused_at_once(tmp_path):
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    text = text.replace('length = ["120 m", "250 m"]', 'length = ["250 m", "120 m"]', 1)
+    assert 'length = ["250 m", "120 m"]' in text
+    t0 = time.perf_counter()
+    res, p = _check(tmp_path, text, command="layout")
+    assert time.perf_counter() - t0 < 10
+    assert res.exit_code == 2 and "place: length: the range runs backwards" in res.stderr
