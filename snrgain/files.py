@@ -110,18 +110,35 @@ def _tmp_prefix(name: str) -> str:
     return f"{TMP_PREFIX}{os.getpid()}-{name}."
 
 
-class _SignalsHeld:
-    """SIGINT and SIGTERM held back (delivered on leaving) while a few renames put a set of files in place."""
+class _SignalsDeferred:
+    """SIGINT and SIGTERM recorded, not acted on, for a few system calls (making a temporary and noting it for
+    clean-up; the renames that put a set in place); on leaving, a recorded signal is handed to the handler that
+    was in force (the command line's raises there, where the caller's clean-up runs).
+
+    Python runs signal handlers in the main thread whichever thread the kernel picked, so swapping the Python
+    handlers covers every thread; outside the main thread nothing is swapped (handlers cannot be set there)."""
+
+    _SIGNALS = (signal.SIGINT, signal.SIGTERM)
 
     def __enter__(self):
-        self._old = None
-        if hasattr(signal, "pthread_sigmask"):
-            self._old = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT, signal.SIGTERM})
+        import threading
+
+        self._old, self._got = {}, []
+        if threading.current_thread() is threading.main_thread():
+            for sig in self._SIGNALS:
+                self._old[sig] = signal.signal(sig, lambda signum, frame: self._got.append(signum))
         return self
 
     def __exit__(self, *exc):
-        if self._old is not None:
-            signal.pthread_sigmask(signal.SIG_SETMASK, self._old)
+        for sig, handler in self._old.items():
+            signal.signal(sig, handler)
+        if self._got:
+            signum = self._got[0]
+            handler = self._old.get(signum)
+            if callable(handler):
+                handler(signum, None)
+            elif handler == signal.SIG_DFL:
+                os.kill(os.getpid(), signum)
         return False
 
 
@@ -160,9 +177,11 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
     """
     p = check_writable(path, overwrite=overwrite)
     remove_stale(p.parent)
-    fd, tmp = tempfile.mkstemp(prefix=_tmp_prefix(p.name), suffix=p.suffix, dir=p.parent)
-    tmp_path = Path(tmp)
+    tmp_path = None
     try:
+        with _SignalsDeferred():  # no signal between making the temporary and knowing to remove it
+            fd, tmp = tempfile.mkstemp(prefix=_tmp_prefix(p.name), suffix=p.suffix, dir=p.parent)
+            tmp_path = Path(tmp)
         if callable(content):
             os.close(fd)
             content(tmp_path)
@@ -181,7 +200,8 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
         os.chmod(tmp_path, mode)
         os.replace(tmp_path, p)
     except BaseException:
-        tmp_path.unlink(missing_ok=True)
+        if tmp_path is not None:
+            tmp_path.unlink(missing_ok=True)
         raise
     return p
 
@@ -191,7 +211,7 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
 
     ``writers`` maps each file name to a function that writes the file at the path it is given.  Every target is
     checked first (existing files need ``overwrite``); the files are written into a temporary folder beside them,
-    then renamed into place with SIGINT and SIGTERM held back, so a Ctrl-C or a kill leaves the old set (or the
+    then renamed into place with SIGINT and SIGTERM deferred, so a Ctrl-C or a kill leaves the old set (or the
     new one) whole.  Only SIGKILL or a power cut during the renames (microseconds) can leave a mix.  Returns the
     paths written.
     """
@@ -200,16 +220,19 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
         raise FileNotFoundError(f"folder {d} does not exist")
     targets = [check_writable(d / name, overwrite=overwrite) for name in writers]
     remove_stale(d)
-    tmp_dir = Path(tempfile.mkdtemp(prefix=_tmp_prefix("set"), dir=d))
+    tmp_dir = None
     try:
+        with _SignalsDeferred():  # no signal between making the folder and knowing to remove it
+            tmp_dir = Path(tempfile.mkdtemp(prefix=_tmp_prefix("set"), dir=d))
         for name, write in writers.items():
             write(tmp_dir / name)
-        with _SignalsHeld():
+        with _SignalsDeferred():
             for name, target in zip(writers, targets):
                 src = tmp_dir / name
                 if target.is_file():
                     os.chmod(src, target.stat().st_mode & 0o7777)
                 os.replace(src, target)
     finally:
-        shutil.rmtree(tmp_dir, ignore_errors=True)
+        if tmp_dir is not None:
+            shutil.rmtree(tmp_dir, ignore_errors=True)
     return targets

@@ -531,3 +531,64 @@ def test_a_reversed_place_range_is_refused_at_once(tmp_path):
     res, p = _check(tmp_path, text, command="layout")
     assert time.perf_counter() - t0 < 10
     assert res.exit_code == 2 and "place: length: the range runs backwards" in res.stderr
+
+
+class _Stop(BaseException):
+    pass
+
+
+@pytest.fixture
+def raising_sigterm():
+    def handler(signum, frame):
+        raise _Stop(signum)
+
+    old = signal.signal(signal.SIGTERM, handler)
+    yield
+    signal.signal(signal.SIGTERM, old)
+
+
+def test_a_signal_while_a_set_is_drawn_leaves_the_old_set_and_no_temporaries(tmp_path, raising_sigterm):
+    from snrgain import files
+
+    (tmp_path / "a.txt").write_text("old a")
+    (tmp_path / "b.txt").write_text("old b")
+
+    def write(text, kill=False):
+        def w(path):
+            path.write_text(text)
+            if kill:
+                os.kill(os.getpid(), signal.SIGTERM)
+
+        return w
+
+    with pytest.raises(_Stop):
+        files.write_set(tmp_path, {"a.txt": write("new a"), "b.txt": write("new b", kill=True)}, overwrite=True)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt", "b.txt"]
+    assert (tmp_path / "a.txt").read_text() == "old a" and (tmp_path / "b.txt").read_text() == "old b"
+
+
+def test_a_signal_during_the_renames_waits_for_the_whole_new_set(tmp_path, raising_sigterm, monkeypatch):
+    from snrgain import files
+
+    for n in "abc":
+        (tmp_path / f"{n}.txt").write_text(f"old {n}")
+    real_replace = os.replace
+    calls = []
+
+    def replace(src, dst):
+        calls.append(dst)
+        if len(calls) == 1:
+            os.kill(os.getpid(), signal.SIGTERM)  # arrives after the first of three renames
+        real_replace(src, dst)
+
+    monkeypatch.setattr(files.os, "replace", replace)
+
+    def writer(n):
+        return lambda path: path.write_text(f"new {n}")
+
+    writers = {f"{n}.txt": writer(n) for n in "abc"}
+    with pytest.raises(_Stop):
+        files.write_set(tmp_path, writers, overwrite=True)
+    assert len(calls) == 3
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt", "b.txt", "c.txt"]
+    assert all((tmp_path / f"{n}.txt").read_text() == f"new {n}" for n in "abc")
