@@ -201,7 +201,8 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
         os.replace(tmp_path, p)
     except BaseException:
         if tmp_path is not None:
-            tmp_path.unlink(missing_ok=True)
+            with _SignalsDeferred():  # a second signal must not cut the clean-up short
+                tmp_path.unlink(missing_ok=True)
         raise
     return p
 
@@ -234,5 +235,6 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
                 os.replace(src, target)
     finally:
         if tmp_dir is not None:
-            shutil.rmtree(tmp_dir, ignore_errors=True)
+            with _SignalsDeferred():  # a signal must not cut the clean-up short
+                shutil.rmtree(tmp_dir, ignore_errors=True)
     return targets

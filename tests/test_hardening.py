@@ -592,3 +592,32 @@ def test_a_signal_during_the_renames_waits_for_the_whole_new_set(tmp_path, raisi
     assert len(calls) == 3
     assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt", "b.txt", "c.txt"]
     assert all((tmp_path / f"{n}.txt").read_text() == f"new {n}" for n in "abc")
+
+
+_FINALISER_SCRIPT = """
+import os, signal, time
+from snrgain.cli import main as m
+
+class Finaliser:
+    def __del__(self):
+        os.kill(os.getpid(), signal.SIGTERM)  # the handler now runs inside a finaliser
+        sum(range(10000))
+
+m._interrupt_on_signals()
+try:
+    Finaliser()
+    t0 = time.time()
+    while time.time() - t0 < 20:
+        time.sleep(0.001)
+    print("carried on")
+except m.Interrupted as exc:
+    m._stopped(exc.signum)
+"""
+
+
+def test_a_signal_landing_in_a_finaliser_still_stops_the_command_quietly():
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    res = subprocess.run([sys.executable, "-c", _FINALISER_SCRIPT], capture_output=True, cwd=REPO, env=env, timeout=60)
+    assert res.returncode == 143, res.stderr
+    assert b"carried on" not in res.stdout
+    assert b"Exception ignored" not in res.stderr and b"Traceback" not in res.stderr

@@ -44,20 +44,61 @@ class Interrupted(BaseException):
         self.signum = signum
 
 
+_received: list[int] = []
+"""The signals received (the first decides the exit code)."""
+
+
 def _interrupt_on_signals() -> None:
-    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Interrupted`; a second signal while the first unwinds is ignored."""
+    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Interrupted`; a second signal while the first unwinds is ignored.
+
+    Python runs a signal handler wherever the main thread is; if that is a finaliser (an object's ``__del__``, a
+    weakref callback, which matplotlib has), the exception cannot propagate: Python would print "Exception
+    ignored" with a traceback and carry on.  The unraisable hook catches that case quietly and sends the signal
+    again a moment later from a helper thread, so it lands in ordinary code; and :func:`main` exits with the
+    signal's code even if the work finished meanwhile."""
+    import os
     import signal
+    import sys
+    import threading
 
     def handler(signum, frame):
+        _received.append(signum)
         for sig in (signal.SIGINT, signal.SIGTERM):
             signal.signal(sig, signal.SIG_IGN)
         raise Interrupted(signum)
+
+    previous_hook = sys.unraisablehook
+
+    def unraisable(args):
+        if not isinstance(args.exc_value, Interrupted):
+            previous_hook(args)
+            return
+        for sig in (signal.SIGINT, signal.SIGTERM):
+            signal.signal(sig, handler)
+        again = threading.Timer(0.01, os.kill, (os.getpid(), args.exc_value.signum))
+        again.daemon = True
+        again.start()
 
     for sig in (signal.SIGINT, signal.SIGTERM):
         try:
             signal.signal(sig, handler)
         except ValueError:  # not the main thread (e.g. under a test runner's thread)
-            pass
+            return
+    sys.unraisablehook = unraisable
+
+
+def _stopped(signum: int) -> None:
+    import signal
+    import sys
+
+    name = "SIGTERM" if signum == signal.SIGTERM else "Ctrl-C"
+    try:
+        sys.stderr.write(f"\nsnrgain: stopped by {name}; no output was left half-written\n")
+        sys.stderr.flush()
+    except (OSError, ValueError):
+        pass
+    # The shell's convention: 128 + the signal's number (130 for Ctrl-C, 143 for SIGTERM).
+    sys.exit(128 + int(signum))
 
 
 cli.add_command(rank)
@@ -83,17 +124,11 @@ def main() -> None:
     try:
         cli()
     except Interrupted as exc:
-        import signal
-        import sys
-
-        name = "SIGTERM" if exc.signum == signal.SIGTERM else "Ctrl-C"
-        try:
-            sys.stderr.write(f"\nsnrgain: stopped by {name}; no output was left half-written\n")
-            sys.stderr.flush()
-        except (OSError, ValueError):
-            pass
-        # The shell's convention: 128 + the signal's number (130 for Ctrl-C, 143 for SIGTERM).
-        sys.exit(128 + int(exc.signum))
+        _stopped(exc.signum)
+    except SystemExit:
+        if _received:  # the signal was caught where it could not stop the work (see _interrupt_on_signals)
+            _stopped(_received[0])
+        raise
 
 
 if __name__ == "__main__":  # pragma: no cover
