@@ -56,7 +56,7 @@ class OpenShort:
 def check_readings(readings: list[OpenShort], length_m: float) -> None:
     if not length_m > 0:
         raise ReadingError(f"length must be > 0 m, got {length_m!r}")
-    for i, r in enumerate(readings):
+    for i, r in enumerate(readings, start=1):
         if not r.freq_hz > 0:
             raise ReadingError(f"reading {i}: frequency must be > 0 Hz, got {r.freq_hz!r}")
         for name, z in (("open", r.z_open_ohm), ("short", r.z_short_ohm)):
@@ -67,6 +67,21 @@ def check_readings(readings: list[OpenShort], length_m: float) -> None:
                 )
             if abs(z) == 0:
                 raise ReadingError(f"reading {i}: {name}-end impedance is zero; the inversion needs both readings")
+        if abs(r.z_open_ohm - r.z_short_ohm) <= SAME_READING_TOLERANCE * abs(r.z_open_ohm):
+            raise ReadingError(
+                f"reading {i} at {r.freq_hz / 1e6:g} MHz: the open-end and short-end impedances are the same "
+                f"({r.z_open_ohm.real:g}{r.z_open_ohm.imag:+g}j ohm); only an endless wire reads so. Check that the "
+                "far end was really opened for one reading and shorted for the other"
+            )
+
+
+MAX_OPEN_SHORT = 24
+"""The most open/short reading pairs a readings file may hold (the ground and BOG-height fits cost about 0.1 s of
+one core per pair)."""
+SAME_READING_TOLERANCE = 1e-3
+"""Open- and short-end readings closer than this, relative to |Z_open|, are taken as the same reading: the
+wire's two ends would differ by over 60 dB of round-trip loss, and tanh(gamma L) = sqrt(Zsc/Zoc) = 1 has no
+finite solution."""
 
 
 def line_from_open_short(
@@ -335,7 +350,20 @@ def load_readings(path: str | Path) -> WireReadings:
         resonance: list[ResonanceEntry] = Field(default_factory=list, max_length=200)
 
     path = Path(path)
-    f = validate(ReadingsFile, read_toml(path), path)
+    data = read_toml(path)
+    pairs = data.get("open_short")
+    if isinstance(pairs, list) and len(pairs) > MAX_OPEN_SHORT:
+        raise ReadingsError(
+            str(path),
+            [
+                (
+                    "open_short",
+                    f"{len(pairs)} readings; at most {MAX_OPEN_SHORT} are fitted (each costs the wire's exact line "
+                    "mode at every trial ground and height): a few frequencies spread over the band pin the line down",
+                )
+            ],
+        )
+    f = validate(ReadingsFile, data, path)
     spec = {"family": "bog", **f.wire}
     if spec.get("family") not in wire_families():
         raise ReadingsError(

@@ -84,14 +84,6 @@ def quantity(dimension: str, *, gt=None, ge=None, lt=None, le=None):
     return Annotated[float, BeforeValidator(check)]
 
 
-def _decibels(value):
-    return parse_db(value)
-
-
-Decibels = Annotated[float, BeforeValidator(_decibels)]
-"""A ratio in dB ("12 dB" or a bare number)."""
-
-
 def decibels(lo: float, hi: float):
     """A ratio in dB within [lo, hi]: the message reads "must lie between 0 and 10 dB; got 12 dB"."""
 
@@ -102,6 +94,10 @@ def decibels(lo: float, hi: float):
         return x
 
     return Annotated[float, BeforeValidator(check)]
+
+
+Decibels = decibels(-200.0, 200.0)
+"""A ratio in dB ("12 dB" or a bare number), within +-200 dB (a field with a narrower physical range says so)."""
 
 
 def _power(value):
@@ -141,7 +137,7 @@ Elevation = quantity("angle", ge=0.0, le=np.pi / 2)
 class StrictModel(BaseModel):
     """Base for every input model: unknown keys are errors."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
+    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False, strict=True)
 
 
 class GroundRod(StrictModel):
@@ -169,6 +165,10 @@ def _connection(value, info: ValidationInfo):
             first = err.errors()[0]
             where = ".".join(str(p) for p in first["loc"])
             raise ValueError(f"{where}: {first['msg'].removeprefix('Value error, ')}") from None
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        from snrgain.problems import toml_repr
+
+        raise ValueError(f"expected {_CONNECTION_CHOICES}; got {toml_repr(value)}")
     try:
         return _CONNECTION_RESISTANCE(value, info)
     except ValueError as err:
@@ -214,13 +214,18 @@ Conductivity = quantity("conductivity", ge=0.0, le=10.0)
 Permittivity = Annotated[float, Field(ge=1.0, le=100.0)]
 
 
+def _pair(value):
+    """A TOML list of two read as a (low, high) pair (strict models take tuples only as tuples)."""
+    return tuple(value) if isinstance(value, list) else value
+
+
 class GroundConstants(StrictModel):
     """A ground given by its constants, each a value or a range [low, high] of its 10 % and 90 % points."""
 
-    conductivity: Conductivity | tuple[Conductivity, Conductivity] = Field(
+    conductivity: Annotated[Conductivity | tuple[Conductivity, Conductivity], BeforeValidator(_pair)] = Field(
         description="conductivity, e.g. '5 mS/m', or a range ['2 mS/m', '12 mS/m']"
     )
-    permittivity: Permittivity | tuple[Permittivity, Permittivity] = Field(
+    permittivity: Annotated[Permittivity | tuple[Permittivity, Permittivity], BeforeValidator(_pair)] = Field(
         description="relative permittivity [-], or a range [8, 20]"
     )
 

@@ -375,6 +375,8 @@ def source_names(res: LocateResult, name: str = "located source") -> list[str]:
 def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
     """The fitted sources as [[noise.local]] tables: placed (position, Fa measured at ``at_m``) where the reading
     point and a distance are known, else by bearing."""
+    from snrgain.tomltext import toml_string
+
     blocks = []
     for i, (s, label) in enumerate(zip(res.sources, source_names(res, name))):
         note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
@@ -384,12 +386,13 @@ def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str
             b = np.radians(s.bearing_deg)
             e, n = at_m[0] + dist * np.sin(b), at_m[1] + dist * np.cos(b)
             blocks.append(
-                head + f'name = "{label}"\nposition = ["{e:.1f} m", "{n:.1f} m"]   # {dist:g} m from the readings\n'
+                head + f"name = {toml_string(label)}\n"
+                f'position = ["{e:.1f} m", "{n:.1f} m"]   # {dist:g} m from the readings\n'
                 f'fa = {s.fa_db:.1f}\nmeasured_at = ["{at_m[0]:.1f} m", "{at_m[1]:.1f} m"]\n'
             )
         else:
             blocks.append(
-                head + f'name = "{label}"\n'
+                head + f"name = {toml_string(label)}\n"
                 f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
             )
     return "".join(blocks)

@@ -46,11 +46,21 @@ def validate(model, data: dict, path) -> object:
         raise ReadingsError(str(path), pydantic_problems(exc, data=data)) from None
 
 
+MAX_IMPEDANCE_OHM = 100e3
+"""The largest |R| or |X| an analyser reading may hold [ohm]: hand-held analysers read to a few kohm."""
+
+
 def impedance_field(value):
-    """A pydantic before-validator for an impedance [ohm]: [R, X] or '95-210j'."""
+    """A pydantic before-validator for an impedance [ohm]: [R, X] or '95-210j', with R >= 0 (a passive wire) and
+    |R|, |X| up to :data:`MAX_IMPEDANCE_OHM`."""
     z = parse_impedance(value, "expected")
     if not (np.isfinite(z.real) and np.isfinite(z.imag)):
         raise ValueError(f"an impedance must be finite; got {value!r}")
+    if not (0.0 <= z.real <= MAX_IMPEDANCE_OHM and abs(z.imag) <= MAX_IMPEDANCE_OHM):
+        raise ValueError(
+            f"an impedance needs R from 0 to {MAX_IMPEDANCE_OHM:g} ohm and X within +-{MAX_IMPEDANCE_OHM:g} ohm "
+            f"(a passive wire, read by an analyser); got {value!r}"
+        )
     return z
 
 
@@ -63,6 +73,12 @@ def parse_impedance(value, where: str) -> complex:
     ):
         return complex(value[0], value[1])
     if isinstance(value, str):
+        from snrgain.units import QuantityError, normalise_text
+
+        try:
+            value = normalise_text(value)
+        except QuantityError as exc:
+            raise ValueError(f"{where} an impedance as [R, X] in ohm or a string like '95-210j'; {exc}") from None
         text = value.replace(" ", "")
         text = re.sub(r"([+-])j([0-9.]+)", r"\g<1>\g<2>j", text)
         try:

@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Annotated, Any, Literal
 
 import numpy as np
-from pydantic import AfterValidator, Field, ValidationError, field_validator, model_validator
+from pydantic import AfterValidator, Field, TypeAdapter, ValidationError, field_validator, model_validator
 
 from snrgain import chain as chainmod
 from snrgain import noise as noisemod
@@ -28,7 +28,6 @@ from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES, placeable_familie
 from snrgain.errors import ScenarioError
 from snrgain.fields import (
     Bearing,
-    Decibels,
     Elevation,
     GroundField,
     Latitude,
@@ -137,6 +136,14 @@ def _check_hours(v):
 Months = Annotated[list[int], Field(min_length=1, max_length=12), AfterValidator(_check_months)]
 Hours = Annotated[list[float], Field(min_length=1, max_length=96), AfterValidator(_check_hours)]
 
+FA_RANGE_DB = (-20.0, 200.0)
+"""Noise levels as Fa [dB above kT0b]: P.372's curves span about 0-180 dB from 10 kHz to 30 MHz."""
+DECILE_RANGE_DB = (0.0, 30.0)
+"""P.372 decile deviations [dB]: distances from the median, never negative (Section 8 tabulates up to about 20)."""
+MIN_ARRIVAL_SHARE = 1e-3
+"""The least share of an atmospheric arrival band's power that P.372's reference monopole must hear, against a
+uniform sky (-30 dB): a band where it hears next to nothing (overhead) would need an absurdly bright sky to
+give the Fa read on it."""
 MAX_ITEMS = 64
 """The most targets, candidates or local sources a scenario may hold."""
 MIN_BAND_RAD = float(np.radians(1.0))
@@ -166,9 +173,9 @@ class ManMade(StrictModel):
 
 class Atmospheric(StrictModel):
     model: Literal["none", "given", "p372"] = "none"
-    fa: Decibels | None = None
-    upper_decile: Decibels = 0.0
-    lower_decile: Decibels = 0.0
+    fa: decibels(*FA_RANGE_DB) | None = None
+    upper_decile: decibels(*DECILE_RANGE_DB) = 0.0
+    lower_decile: decibels(*DECILE_RANGE_DB) = 0.0
     arrival: Literal["storms", "uniform", "sector"] | None = None
     elevation_center: Elevation = _AT.elevation_center_rad
     elevation_width: quantity("angle", gt=0.0, le=np.pi / 2) = _AT.elevation_width_rad
@@ -186,6 +193,16 @@ class Atmospheric(StrictModel):
             raise ValueError("arrival = 'sector' needs sector = { from = ..., to = ... }")
         if self.sector is not None and self.arrival not in (None, "sector"):
             raise ValueError(f"sector is used only with arrival = 'sector', not {self.arrival!r}")
+        if self.model != "none" and self.arrival_model in ("uniform", "sector"):
+            share = arrival_band_share(self.elevation_center, self.elevation_width)
+            if share < MIN_ARRIVAL_SHARE:
+                c, w = np.degrees(self.elevation_center), np.degrees(self.elevation_width)
+                raise ValueError(
+                    f"elevation_center {c:g} deg with elevation_width {w:g} deg puts the arrival band where P.372's "
+                    f"reference monopole hears almost nothing (overhead: {10 * np.log10(max(share, 1e-300)):.0f} dB "
+                    f"against a uniform sky, at least {10 * np.log10(MIN_ARRIVAL_SHARE):.0f} dB allowed); lower "
+                    "elevation_center or widen the band"
+                )
         return self
 
     @property
@@ -200,6 +217,18 @@ class Atmospheric(StrictModel):
     @property
     def needs_data(self) -> bool:
         return self.model == "p372" or (self.model == "given" and self.arrival_model == "storms")
+
+
+def arrival_band_share(center_rad: float, width_rad: float) -> float:
+    """How well P.372's reference monopole (gain as cos^2 of the elevation) hears a Gaussian band of arrival
+    elevations (noisemodels.sky.elevation_band), against a uniform sky: the band-weighted mean of cos^2 over
+    its uniform-sky mean (2/3).  1 for a band at the horizon's mean, 0 for one straight overhead."""
+    el = np.linspace(0.0, np.pi / 2, 9001)
+    band = np.exp(-0.5 * ((el - center_rad) / width_rad) ** 2) * np.cos(el)  # power per elevation, solid angle
+    total = float(band.sum())
+    if not total > 0:
+        return 0.0
+    return float((band * np.cos(el) ** 2).sum() / total / (2.0 / 3.0))
 
 
 class Galactic(StrictModel):
@@ -227,7 +256,7 @@ class LocalSource(StrictModel):
     elevation: Elevation = _SRC.elevation_rad
     spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
-    fa: Decibels | None = None
+    fa: decibels(*FA_RANGE_DB) | None = None
     uncertainty: decibels(0.0, 30.0) = 0.0
     """How uncertain the level is: the 10-90 % half-width, like a P.372 decile deviation [dB]."""
 
@@ -281,9 +310,7 @@ class Target(StrictModel):
     def _range(cls, v):
         if v is None:
             return v
-        if not isinstance(v, list):
-            v = [v, v]
-        if len(v) != 2:
+        if not isinstance(v, list) or len(v) != 2:
             raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {v!r}")
         return v
 
@@ -299,7 +326,7 @@ class Target(StrictModel):
             raise ValueError("a target by bearing needs elevation = [low, high] in degrees")
         if self.elevation is not None and self.elevation[1] < self.elevation[0]:
             raise ValueError("elevation range is reversed; write [low, high]")
-        if self.elevation is not None and self.elevation[1] - self.elevation[0] < MIN_BAND_RAD:
+        if self.elevation is not None and self.elevation[1] - self.elevation[0] < MIN_BAND_RAD * (1 - 1e-9):
             raise ValueError(
                 f"elevation range {[round(float(np.degrees(x)), 3) for x in self.elevation]} deg has no "
                 "width; give [low, high] at least 1 deg apart, e.g. [5, 25]"
@@ -310,7 +337,7 @@ class Target(StrictModel):
 class Receiver(StrictModel):
     noise_figure: decibels(0.0, 40.0) | None = None
     noise_floor: PowerDbm | None = None
-    margin_target: Decibels = rx.DEFAULT_MARGIN_TARGET_DB
+    margin_target: decibels(-20.0, 60.0) = rx.DEFAULT_MARGIN_TARGET_DB
 
     @model_validator(mode="after")
     def _one(self):
@@ -525,7 +552,13 @@ def _inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
 def _raw_ground(site) -> str | dict | None:
     """The site's ground as written, for antennas that give none; None if unusable (reported elsewhere)."""
     g = site.get("ground", "moist loam") if isinstance(site, dict) else "moist loam"
-    return g if isinstance(g, (str, dict)) else None
+    if not isinstance(g, (str, dict)):
+        return None
+    try:  # a bad ground is reported once, under site.ground, not again for every antenna that inherits it
+        TypeAdapter(GroundField).validate_python(g)
+    except (ValidationError, ValueError):
+        return None
+    return g
 
 
 def read_source(source: str | Path) -> tuple[dict, str, Path | None]:
@@ -598,6 +631,19 @@ def load(
     except ValidationError as exc:
         problems.extend(pydantic_problems(exc, data=data))
         model = None
+    if model is not None:
+        problems.extend(_unique_names(model))
+        n = model.noise
+        quiet = n.man_made.environment == "none" and n.atmospheric.model == "none"
+        if quiet and not n.galactic.enabled and not n.local:
+            problems.append(
+                (
+                    "noise",
+                    "every noise component is off (man-made environment 'none', atmospheric model 'none', galactic "
+                    "disabled, no local sources): with no sky noise the SNR is the receiver's alone and the margins "
+                    "are infinite; turn at least one on",
+                )
+            )
 
     # Antennas are validated by their own families (even when other sections failed).
     site_ground = _raw_ground(data.get("site", {})) if isinstance(data, dict) else "moist loam"
@@ -616,6 +662,7 @@ def load(
     wheres: list[str] = []
     chains: list[ChainSection | None] = []
     names = set()
+    ref_name = None
     placeable: dict[str, PlaceSection] = {}
     for where, spec in specs:
         own_chain = None
@@ -656,11 +703,20 @@ def load(
                     "use auto_for = 'rdf' or 'front_to_back'",
                 )
             )
-        if where != "reference":
+        if where == "reference":
+            ref_name = ant.name
+        else:
             if not params.name:
                 problems.append((f"{where}.name", "every candidate needs a name"))
             elif params.name in names:
                 problems.append((f"{where}.name", f"name {params.name!r} is used twice"))
+            elif params.name == "reference" or params.name == ref_name:
+                problems.append(
+                    (
+                        f"{where}.name",
+                        f"name {params.name!r} is the reference's; give the candidate a name of its own",
+                    )
+                )
             names.add(params.name)
         antennas.append(ant)
         wheres.append(where)
@@ -692,6 +748,8 @@ def load(
             chain = chain_from_section(model.chain, freq_hz=freq, receiver_noise_figure_db=receiver.noise_figure_db)
         except ValueError as exc:
             problems.append(("receiver", str(exc)))
+    if model is not None and antennas and not problems:
+        problems.extend(_local_sources_clear(model.noise.local, antennas, wheres, model.site))
     if model is not None and antennas and not problems:
         problems.extend(_local_levels_readable(model.noise.local, antennas[0], freq, model.site))
     if problems:
@@ -793,18 +851,21 @@ def _local_levels_readable(
     for i, raw in enumerate(local):
         where = f'noise.local {i + 1} ("{raw.name}")'
         src = _local_source(raw, site, ref_m)
+        if raw.level is None:
+            continue
         if src.position_m is not None:
-            gap = float(np.hypot(src.position_m[0] - ref_m[0], src.position_m[1] - ref_m[1]))
-            if gap < 1.0:
+            from snrgain import placed
+
+            ground = make_ground(site.ground)
+            if not placed.received_power(reference, src, freq_hz, ref_m, ground) > 0:
                 out.append(
                     (
-                        f"{where}.position",
-                        f"the source stands {gap:.2f} m from the reference antenna; place it at least 1 m away "
-                        "(its direction from the reference must be defined)",
+                        f"{where}.level",
+                        f"the reference antenna ({reference.family}) picks up nothing of a {src.polarisation} "
+                        "source where it stands, so a level read on it cannot be placed; give the level as fa, "
+                        "or the polarisation the reference hears",
                     )
                 )
-                continue
-        if raw.level is None:
             continue
         d = compact_source_directions(src.bearing_rad, src.elevation_rad, src.spread_rad)
         if not np.any(reference.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):
@@ -816,6 +877,94 @@ def _local_levels_readable(
                     "give the level as fa instead",
                 )
             )
+    return out
+
+
+MIN_SOURCE_GAP_M = 1.0
+"""The least distance on the plan between a placed noise source and any antenna's feed point, wire or element [m]:
+closer, its direction and field at the antenna are not defined."""
+
+
+def _antenna_outline(antenna, reference_m) -> list[np.ndarray]:
+    """Where an antenna stands on the plan: its points and, for a long wire, the segment of its wire [m]."""
+    pos = getattr(antenna, "positions", None)
+    if pos is not None and len(pos):
+        pts = np.asarray(pos, dtype=float)
+        return [p for p in pts] + [pts.mean(axis=0)]
+    p = antenna.params.position
+    p = np.asarray(reference_m if p is None else p, dtype=float)
+    if antenna.family in WIRE_FAMILIES:
+        b = antenna.bearing_rad
+        return [np.array([p, p + antenna.length_m * np.array([np.sin(b), np.cos(b)])])]
+    return [p]
+
+
+def _gap_m(point: np.ndarray, shape: np.ndarray) -> float:
+    """Distance on the plan from a point to a point or a segment (2 x 2) [m]."""
+    if shape.ndim == 1:
+        return float(np.hypot(*(point - shape)))
+    a, b = shape
+    ab = b - a
+    t = float(np.clip(np.dot(point - a, ab) / max(float(np.dot(ab, ab)), 1e-300), 0.0, 1.0))
+    return float(np.hypot(*(point - (a + t * ab))))
+
+
+def _local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSection) -> list[tuple[str, str]]:
+    """Every placed source stands at least :data:`MIN_SOURCE_GAP_M` from every antenna (feed point, wire, element):
+    the field model needs a distance and the reading a direction."""
+    out = []
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    for i, raw in enumerate(local):
+        if raw.bearing is not None:
+            continue
+        src = _local_source(raw, site, ref_m)
+        point = np.asarray(src.position_m, dtype=float)
+        for ant, where in zip(antennas, wheres):
+            if ant.family == "combination":
+                continue
+            gaps = []
+            for shape in _antenna_outline(ant, ref_m):
+                gap = _gap_m(point, shape)
+                if shape.ndim == 2 and hasattr(ant, "wire_height_m"):  # along a wire: the distance in space
+                    gap = float(np.hypot(gap, ant.wire_height_m() - src.height_m))
+                gaps.append(gap)
+            gap = min(gaps)
+            if gap < MIN_SOURCE_GAP_M:
+                key = "position" if raw.position is not None else "latitude"
+                out.append(
+                    (
+                        f'noise.local {i + 1} ("{raw.name}").{key}',
+                        f"the source stands {gap:.2f} m from "
+                        f"{where if where != 'reference' else f'the reference ({ant.name!r})'}; place it at least "
+                        f"{MIN_SOURCE_GAP_M:g} m away from every antenna's feed point, wire and elements",
+                    )
+                )
+                break
+    return out
+
+
+def _unique_names(model: ScenarioModel) -> list[tuple[str, str]]:
+    """Targets, local sources and keep-out areas each need names of their own (results are labelled by them)."""
+    out = []
+    groups = [
+        ("target", [t.name for t in model.target]),
+        ("noise.local", [s.name for s in model.noise.local]),
+        ("site.keep_out", [k.name for k in model.site.keep_out]),
+    ]
+    for key, names in groups:
+        seen: dict[str, int] = {}
+        for i, name in enumerate(names):
+            if not name.strip():
+                out.append((f"{key} {i + 1}.name", "a name must not be empty"))
+            elif name in seen:
+                out.append(
+                    (
+                        f'{key} {i + 1} ("{name}").name',
+                        f"name {name!r} is already used by {key} {seen[name] + 1}; give each its own name",
+                    )
+                )
+            else:
+                seen[name] = i
     return out
 
 
@@ -931,14 +1080,12 @@ MAX_FILE_BYTES = 5_000_000
 
 def read_text_file(path: Path) -> str:
     """The UTF-8 text of a scenario or readings file; ScenarioError if unreadable, too large or not UTF-8."""
+    from snrgain.files import InputFileError, read_limited
+
     try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise ScenarioError(str(path), [("", f"cannot read the file ({exc.strerror or exc})")]) from None
-    if len(raw) > MAX_FILE_BYTES:
-        raise ScenarioError(
-            str(path), [("", f"the file is {len(raw)} bytes; at most {MAX_FILE_BYTES // 1_000_000} MB is read")]
-        )
+        raw = read_limited(path, limit_bytes=MAX_FILE_BYTES, what="file")
+    except InputFileError as exc:
+        raise ScenarioError(str(path), [("", str(exc).removeprefix(f"{path}: "))]) from None
     return decode_text(raw, str(path))
 
 

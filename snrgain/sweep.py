@@ -132,9 +132,11 @@ def parse_vary(text: str) -> Vary:
         column = f"{table}: {key} [{ua}]" if ua else f"{table}: {key}"
         col_vals = nums
     else:
-        items = [s for s in (v.strip() for v in values.split(",")) if s]
-        if not items:
+        items = [v.strip() for v in values.split(",")]
+        if not any(items):
             raise VaryError(text, "no values: give a range START to STOP by STEP or a list A, B, C")
+        if not all(items):
+            raise VaryError(text, f"item {items.index('') + 1} of the list is empty (two commas, or one at an end)")
         vals = [_scalar(s) for s in items]
         column = f"{table}: {key}"
         col_vals = list(vals)

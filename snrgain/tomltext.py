@@ -14,14 +14,33 @@ _HEAD = re.compile(r"\s*\[")
 _NAME = re.compile(r'\s*name\s*=\s*"([^"]*)"')
 
 
+def toml_string(value: str) -> str:
+    """``value`` as a TOML basic string, quotes, backslashes and control characters escaped.
+
+    >>> print(toml_string('the "barn" light'))
+    "the \\"barn\\" light"
+    """
+    import json
+
+    return json.dumps(value, ensure_ascii=False)  # JSON's string escapes are all valid in TOML basic strings
+
+
+def _block_name(block: list[str]) -> str | None:
+    """The ``name`` of a table's body, read as TOML (escapes and all), else by a plain match."""
+    try:
+        name = tomllib.loads("".join(block)).get("name")
+        return name if isinstance(name, str) else None
+    except tomllib.TOMLDecodeError:
+        return next((m.group(1) for ln in block if (m := _NAME.match(ln))), None)
+
+
 def table_blocks(lines: list[str], header: str) -> list[tuple[int, int, str | None]]:
     """(first line, line after the last, name) of every table with ``header`` (e.g. "[[candidate]]")."""
     heads = [i for i, ln in enumerate(lines) if _HEAD.match(ln)] + [len(lines)]
     out = []
     for a, b in zip(heads, heads[1:]):
         if lines[a].split("#", 1)[0].strip() == header:  # a comment may follow the header
-            name = next((m.group(1) for ln in lines[a:b] if (m := _NAME.match(ln))), None)
-            out.append((a, b, name))
+            out.append((a, b, _block_name(lines[a + 1 : b])))
     return out
 
 

@@ -28,6 +28,7 @@ Levels in dB are parsed here too: ``"-95 dBm"`` (power), ``"S7"`` or
 from __future__ import annotations
 
 import re
+import unicodedata
 
 import numpy as np
 
@@ -49,9 +50,45 @@ S9_DBM = -73.0
 DB_PER_S_UNIT = 6.0
 """dB per S-unit, IARU Region 1 Technical Recommendation R.1."""
 
-_NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?"
+_NUMBER = r"[-+]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][-+]?[0-9]{1,3})?"
 _WORD = r"[A-Za-z\u00b0\u00b5\u03bc\u03a9]+"
 _QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*({_WORD}(?:\s*/\s*{_WORD})?)?\s*$")
+_MINUS_SIGNS = {"\u2212": "-", "\u2012": "-", "\u2013": "-", "\ufe63": "-", "\uff0d": "-"}
+_PREFIX_CASE = frozenset("mM")
+"""Prefix letters whose case changes a unit's meaning (milli or mega): never folded."""
+_SIEMENS_DIMENSIONS = frozenset({"conductivity", "time"})
+"""Dimensions where 's' and 'S' (second, siemens) must not be folded into each other."""
+
+
+def normalise_text(value: str, what: str = "a number") -> str:
+    """A user's number and unit in the plain characters the grammar reads.
+
+    Decimal digits of any script ("\u0663", "\uff14\uff10", "\U0001d7d3") become the ASCII digits they show, a
+    minus sign or dash becomes "-", and compatibility forms of letters (full-width "\uff2d\uff28\uff5a") become
+    plain ones (Unicode NFKC).  Superscripts, fractions and other number signs that are not decimal
+    digits ("5\u00b2", "\u00bd") are refused: reading them would change the number shown.
+
+    >>> normalise_text("\u0664\u0660 m"), normalise_text("\u221295 dBm")
+    ('40 m', '-95 dBm')
+    """
+    out = []
+    for ch in value:
+        cat = unicodedata.category(ch)
+        if cat == "Nd":
+            out.append(str(unicodedata.decimal(ch)))
+        elif cat in ("No", "Nl"):
+            raise QuantityError(
+                f"cannot read {value!r} as {what}: {ch!r} is not a decimal digit; write plain digits like 12.5"
+            )
+        elif ch in _MINUS_SIGNS:
+            out.append("-")
+        else:
+            out.append(ch)
+    text = unicodedata.normalize("NFKC", "".join(out))
+    # NFKC maps the micro sign and the ohm sign to Greek letters the unit tables also hold.
+    return text
+
+
 _ATTENUATION = re.compile(rf"^\s*({_NUMBER})\s*(?:dB\s*/\s*(100\s*m|100\s*ft|m|ft))?\s*$", re.IGNORECASE)
 _ATTENUATION_SCALE = {"100m": 1.0, "100ft": FT_PER_M, "m": 100.0, "ft": 100.0 * FT_PER_M}
 ATTENUATION_RANGE_DB_PER_100M = (0.0, 200.0)
@@ -123,7 +160,7 @@ def parse_quantity(value, dimension: str) -> float:
     si_unit, example, bare_ok = DIMENSIONS[dimension]
     _reject_non_text(value, dimension, example)
     if isinstance(value, str):
-        m = _QUANTITY.match(value)
+        m = _QUANTITY.match(normalise_text(value, dimension))
         if m is None:
             raise QuantityError(f"cannot read {value!r} as {dimension}: write a number and one unit, like {example}")
         number, unit = float(m.group(1)), m.group(2)
@@ -151,9 +188,21 @@ def _unit_scale(unit: str, dimension: str) -> float:
     key = re.sub(r"\s+", "", unit)
     if key in table:
         return table[key]
-    lowered = {k.lower(): v for k, v in table.items()}
-    if key.lower() in lowered and dimension != "frequency":  # "M" and "m" differ only for frequencies
-        return lowered[key.lower()]
+    # Letter case is forgiven only where it cannot change the meaning: "FT", "OHM", "khz" are read, but
+    # "Mm" (megametre, not mm), "mohm" (milliohm, not Mohm), "MS/m" or "ms/m" (not mS/m) are refused.
+    folded = [k for k in table if k.lower() == key.lower()]
+    if len(folded) == 1:
+        canon = folded[0]
+        prefix_kept = canon[0] == key[0] or canon[0] not in _PREFIX_CASE
+        siemens_kept = dimension not in _SIEMENS_DIMENSIONS or all(
+            a == b for a, b in zip(canon, key) if a in "sS" or b in "sS"
+        )
+        if prefix_kept and siemens_kept:
+            return table[canon]
+        raise QuantityError(
+            f"{dimension} unit {unit!r} is ambiguous: the case of m/M (milli, mega) and s/S (second, siemens) matters; "
+            f"did you mean {canon!r}? Use one of {', '.join(table)}"
+        )
     for other, units in UNITS.items():
         if other != dimension and key in units:
             raise QuantityError(f"{unit!r} is a unit of {other}, not of {dimension}; use one of {', '.join(table)}")
@@ -165,7 +214,7 @@ def parse_attenuation_db_per_100m(value) -> float:
     example = "'2 dB/100m' or '0.6 dB/100ft'"
     _reject_non_text(value, "an attenuation", example)
     if isinstance(value, str):
-        m = _ATTENUATION.match(value)
+        m = _ATTENUATION.match(normalise_text(value, "an attenuation"))
         if m is None:
             raise QuantityError(f"expected an attenuation such as {example}, got {value!r}")
         per = re.sub(r"\s+", "", m.group(2) or "100m").lower()
@@ -178,18 +227,31 @@ def parse_attenuation_db_per_100m(value) -> float:
     return x
 
 
-_DBM = re.compile(r"^\s*([-+]?\d+(?:\.\d*)?|[-+]?\.\d+)\s*dBm\s*$", re.IGNORECASE)
-_S_UNIT = re.compile(r"^\s*S\s*(\d)(?:\s*\+\s*(\d+(?:\.\d*)?)\s*(?:dB)?)?\s*$", re.IGNORECASE)
-_DB = re.compile(r"^\s*([-+]?\d+(?:\.\d*)?|[-+]?\.\d+)\s*dB\s*$", re.IGNORECASE)
+_DBM = re.compile(r"^\s*([-+]?[0-9]+(?:\.[0-9]*)?|[-+]?\.[0-9]+)\s*dBm\s*$", re.IGNORECASE)
+_S_UNIT = re.compile(r"^\s*S\s*([0-9])(?:\s*\+\s*([0-9]+(?:\.[0-9]*)?)\s*(?:dB)?)?\s*$", re.IGNORECASE)
+_DB = re.compile(r"^\s*([-+]?[0-9]+(?:\.[0-9]*)?|[-+]?\.[0-9]+)\s*dB\s*$", re.IGNORECASE)
+
+
+POWER_RANGE_DBM = (-200.0, 30.0)
+"""Received powers a listener can read [dBm]: from far below any receiver's floor to 1 W (S9+103)."""
 
 
 def parse_power_dbm(value) -> float:
-    """A received power as dBm: "-95 dBm", "S7", "S9+10" or "S9+10 dB".
+    """A received power as dBm: "-95 dBm", "S7", "S9+10" or "S9+10 dB", within :data:`POWER_RANGE_DBM`.
 
     S-units follow IARU Region 1 Technical Recommendation R.1 below 30 MHz:
     S9 = -73 dBm, 6 dB per S-unit (S1 = -121 dBm); "S9+N" adds N dB.
     """
+    x = _power_dbm(value)
+    lo, hi = POWER_RANGE_DBM
+    if not (np.isfinite(x) and lo <= x <= hi):
+        raise QuantityError(f"a received power must lie between {lo:g} and {hi:+g} dBm; got {value!r}")
+    return x
+
+
+def _power_dbm(value) -> float:
     if isinstance(value, str):
+        value = normalise_text(value, "a power")
         m = _DBM.match(value)
         if m:
             return float(m.group(1))
@@ -225,6 +287,7 @@ def parse_db(value) -> float:
     if isinstance(value, (int, float)):
         x = float(value)
     elif isinstance(value, str):
+        value = normalise_text(value, "a value in dB")
         m = _DB.match(value)
         if m:
             x = float(m.group(1))

@@ -1,5 +1,7 @@
 """Shared paths and helpers for the tests."""
 
+import os
+import tomllib
 from pathlib import Path
 
 import pytest
@@ -7,12 +9,34 @@ import pytest
 REPO = Path(__file__).resolve().parents[1]
 SCENARIOS = REPO / "scenarios"
 SHARED = REPO.parent / "shared"
-P372_DIR = SHARED / "data" / "p372"
+
+
+def _p372_dir() -> Path:
+    """The ITU-R P.372 data: the user's SNRGAIN_P372_DIR when set (never overridden), else ../shared/data/p372."""
+    env = os.environ.get("SNRGAIN_P372_DIR")
+    return Path(env).expanduser() if env else SHARED / "data" / "p372"
+
+
+P372_DIR = _p372_dir()
+HAVE_P372 = (P372_DIR / "COEFF01W.txt").is_file()
 
 needs_p372 = pytest.mark.skipif(
-    not (P372_DIR / "COEFF01W.txt").exists(), reason="ITU-R P.372 data not found at ../shared/data/p372"
+    not HAVE_P372,
+    reason=f"ITU-R P.372 data not found at {P372_DIR} (download them and set SNRGAIN_P372_DIR to their folder)",
 )
-"""Marks a test that reads the ITU-R P.372 coefficient files (they stay in ../shared, never in the repository)."""
+"""Marks a test that reads the ITU-R P.372 coefficient files (they stay outside the repository)."""
+
+
+def scenario_needs_p372(path: Path) -> bool:
+    """Whether a scenario file asks for the P.372 atmospheric-noise maps."""
+    data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
+    return data.get("noise", {}).get("atmospheric", {}).get("model") == "p372"
+
+
+def demo_params(paths=None):
+    """The demo scenarios as pytest parameters; those that need the P.372 data carry `needs_p372`."""
+    paths = sorted(SCENARIOS.glob("*.toml")) if paths is None else paths
+    return [pytest.param(p, id=p.stem, marks=[needs_p372] if scenario_needs_p372(p) else []) for p in paths]
 
 
 @pytest.fixture

@@ -129,7 +129,7 @@ def test_tabulated_bad_files_name_the_problem(tmp_path, content, match):
 
 
 def test_tabulated_missing_file():
-    with pytest.raises(SpecError, match="cannot read pattern file"):
+    with pytest.raises(SpecError, match="cannot read the pattern file"):
         from_spec({"family": "tabulated", "file": "/nonexistent/x.csv"})
 
 

@@ -11,7 +11,7 @@ from click.testing import CliRunner
 import snrgain
 from snrgain import plots, report
 from snrgain.cli.main import cli
-from tests.conftest import P372_DIR, SCENARIOS
+from tests.conftest import HAVE_P372, P372_DIR, SCENARIOS
 
 
 @pytest.fixture(scope="module")
@@ -23,6 +23,8 @@ def results():
 def summer(monkeypatch_module=None):
     import os
 
+    if not HAVE_P372:
+        pytest.skip(f"ITU-R P.372 data not found at {P372_DIR} (set SNRGAIN_P372_DIR to their folder)")
     old = os.environ.get("SNRGAIN_P372_DIR")
     os.environ["SNRGAIN_P372_DIR"] = str(P372_DIR)
     try:

@@ -336,3 +336,135 @@ def test_check_finds_what_rank_would(tmp_path):
     text = MINIMAL + '\n[[noise.local]]\nname = "overhead"\nbearing = 0\nelevation = 90\nspread = 0\nlevel = "S7"\n'
     res, p = _check(tmp_path, text)
     assert res.exit_code == 2 and 'noise.local 1 ("overhead").level' in res.stderr
+
+
+# -- fuzz of the command-line options, with Unicode lookalikes ---------------------------------------------------
+
+_LOOKALIKES = [
+    "\uff11.\uff18\uff13 \uff2d\uff28\uff5a",  # full-width "1.83 MHz"
+    "1.83 \u041cHz",  # Cyrillic capital EM
+    "1.83\u00a0MHz",  # no-break space
+    "1.83\u200b MHz",  # zero-width space
+    "\u221295 dBm",  # minus sign
+    "\u0664\u0660 m",  # Arabic-Indic "40"
+    "\u096a\u0966 ft",  # Devanagari "40"
+    "\U0001d7d2\U0001d7ce m",  # mathematical bold "40"
+    "5\u00b2 m",  # superscript two
+    "\u00bd m",  # vulgar fraction one half
+    "\u2167 m",  # Roman numeral eight
+    "40 Mm",
+    "10 mohm",
+    "5 MS/m",
+    "1.83 mhz",
+    "8 \uff46\uff54",  # full-width "ft"
+    "S\u0669+\u0661\u0660",  # S9+10 in Arabic-Indic digits
+    "\u0663\u0660",  # Arabic-Indic "30"
+    "\uff14\uff11.\uff16",  # full-width "41.6"
+    "1e\u0663",
+    "\u00b5S/m",
+    "5 \u03bcS/m",
+    "4\u2126",
+    "nan",
+    "inf",
+    "-inf",
+    "1e309",
+    "-0",
+    "",
+    " ",
+    "auto",
+    "rod",
+    "perfect",
+    "on soil",
+    "0",
+    "-1",
+    "1e-300",
+    "999999999999999999999999",
+]
+_OPTION_VALUE = st.one_of(st.sampled_from(_LOOKALIKES), st.text(max_size=10))
+_FAST = MINIMAL + "\n[compute]\nnside = 8\n\n[uncertainty]\nground = false\nnoise_deciles = false\nhours = false\n"
+_COMMANDS = {
+    "rank": (["--format", "json"], ["--format", "--nside"]),
+    "wire": (
+        ["--frequency", "1.83 MHz", "--length", "80 m", "--height", "2 m", "--format", "json"],
+        [
+            "--frequency",
+            "--length",
+            "--height",
+            "--depth",
+            "--family",
+            "--gauge",
+            "--diameter",
+            "--ground",
+            "--conductivity",
+            "--permittivity",
+            "--elevation",
+            "--termination",
+            "--feed-ground",
+            "--far-ground",
+            "--coax",
+        ],
+    ),
+    "noise": (
+        ["--lat", "41.6", "--lon", "-72.35", "--month", "7", "--frequency", "1.83 MHz", "--hour", "4"],
+        ["--lat", "--lon", "--month", "--frequency", "--environment", "--hour", "--format"],
+    ),
+}
+
+
+def _with_option(base: list[str], option: str, value: str) -> list[str]:
+    args = list(base)
+    if option in args:
+        args[args.index(option) + 1] = value
+    else:
+        args += [option, value]
+    return args
+
+
+@seed(20261203)
+@settings(max_examples=400, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
+@given(
+    command=st.sampled_from(["rank", "wire", "wire", "noise", "noise"]),
+    which=st.integers(min_value=0, max_value=40),
+    value=_OPTION_VALUE,
+)
+def test_fuzz_options(tmp_path_factory, command, which, value):
+    from tests.conftest import HAVE_P372, P372_DIR
+
+    base, options = _COMMANDS[command]
+    option = options[which % len(options)]
+    args = _with_option(base, option, value)
+    if command == "rank":
+        scenario = tmp_path_factory.mktemp("fo") / "s.toml"
+        scenario.write_text(_FAST, encoding="utf-8")
+        args = [str(scenario), *args]
+    if command == "noise" and HAVE_P372:
+        args += ["--p372-dir", str(P372_DIR)]
+    t0 = time.perf_counter()
+    res = CliRunner().invoke(cli, [command, *args])
+    assert time.perf_counter() - t0 < 10.0
+    assert res.exit_code in (0, 2), (args, res.exit_code, res.output)
+    assert "Traceback" not in res.output
+    if res.exit_code == 2 and not (command == "noise" and not HAVE_P372 and "P.372" in res.output):
+        # the message names the option (click) or the quantity it holds (the library)
+        key = option.lstrip("-")
+        assert key in res.output or key.replace("-", "_") in res.output or "Usage" in res.output, (args, res.output)
+
+
+@seed(20261203)
+@settings(max_examples=300, deadline=None, derandomize=True, suppress_health_check=list(HealthCheck))
+@given(
+    table=st.sampled_from(["iso", "reference", "site", "band", ""]),
+    key=st.sampled_from(["length", "name", "ground", "frequency", "height", "a.b", "1x", ""]),
+    values=st.lists(st.one_of(st.sampled_from(_LOOKALIKES), st.text(max_size=6)), max_size=4),
+    ranged=st.booleans(),
+)
+def test_fuzz_vary(table, key, values, ranged):
+    from snrgain import sweep
+
+    spec = " to ".join(values[:2]) + " by " + (values[2] if len(values) > 2 else "1") if ranged else ", ".join(values)
+    try:
+        v = sweep.parse_vary(f"{table}: {key} = {spec}")
+    except sweep.VaryError as exc:
+        assert str(exc)
+        return
+    assert v.values and all(x != "" for x in v.values)

@@ -70,7 +70,7 @@ def test_a_wire_inside_the_lot_and_clear_of_everything_draws_no_warning():
     "cand, code",
     [
         ('position = [0, 0]\nbearing = 0\nlength = "250 m"', "off-lot"),
-        ('position = [50, 70]\nbearing = 90\nlength = "100 m"', "in-keep-out"),
+        ('position = [50, 74]\nbearing = 90\nlength = "100 m"', "in-keep-out"),  # 4 m past the TV
         ('position = [100, 20]\nbearing = 90\nlength = "60 m"', "wires-cross"),
         ('position = [10, 10]\nbearing = 45\nlength = "100 m"', "near-tx-vertical"),
     ],

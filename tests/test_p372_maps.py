@@ -6,11 +6,9 @@ import numpy as np
 import pytest
 
 from noisemodels import p372, p372_maps, sky, sphere, storms
-from tests.conftest import P372_DIR
+from tests.conftest import P372_DIR, needs_p372
 
-pytestmark = pytest.mark.skipif(
-    not (P372_DIR / "COEFF01W.txt").exists(), reason="ITU-R P.372 data not found at ../shared/data/p372"
-)
+pytestmark = needs_p372
 
 CHECK = P372_DIR / "check-values-site-south.csv"
 

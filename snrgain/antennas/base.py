@@ -237,25 +237,11 @@ def field_path(loc, data=None, prefix: str = "") -> str:
 
 
 def pydantic_problems(exc: ValidationError, prefix: str = "", data=None) -> list[tuple[str, str]]:
-    """(field path, message) pairs from a pydantic error, with the input shown; ``data`` is the input validated
-    (to name list items)."""
-    out = []
-    for err in exc.errors():
-        path = field_path(err.get("loc", ()), data, prefix)
-        msg = err.get("msg", "invalid")
-        msg = msg.removeprefix("Value error, ")
-        typ = err.get("type", "")
-        if typ == "extra_forbidden":
-            msg = "unknown key (check its spelling)"
-        elif typ == "missing":
-            msg = "required key is missing"
-        elif "input" in err and typ not in {"value_error"} and not msg.endswith(repr(err["input"])):
-            shown = repr(err["input"])
-            if len(shown) > 60:
-                shown = shown[:57] + "..."
-            msg = f"{msg}; got {shown}"
-        out.append((path, msg))
-    return out
+    """(field path, message) pairs from a pydantic error, one per problem (:func:`snrgain.problems.pydantic_problems`);
+    ``data`` is the input validated (to name list items)."""
+    from snrgain.problems import pydantic_problems as problems
+
+    return problems(exc, prefix, data)
 
 
 def validate_spec(spec: dict, prefix: str = "", *, si: bool = False) -> AntennaParams:

@@ -136,11 +136,16 @@ class UnterminatedParams(WireParams):
         return data
 
 
+BOG_DEFAULT_HEIGHT_M = 0.02
+"""A BOG's axis above the soil when neither height nor depth is given [m]: a wire laid in grass."""
+
+
 class BogParams(WireParams):
     family: Literal["bog"]
-    height: quantity("length", gt=0.0, le=0.3) | Literal["on soil"] = 0.02
+    height: quantity("length", gt=0.0, le=0.3) | Literal["on soil"] | None = None
     """The wire's axis above the soil [m]: "on soil" for a wire resting on bare soil (the axis at the insulation's
-    radius); the default 2 cm stands for a wire laid in grass, which holds it up (Bog's docstring)."""
+    radius); not given, :data:`BOG_DEFAULT_HEIGHT_M` stands for a wire laid in grass, which holds it up (Bog's
+    docstring).  A buried wire (``depth``) takes no height."""
     depth: quantity("length", ge=0.0, le=0.5) = 0.0
     insulation_thickness: quantity("length", ge=1e-5, le=0.02) = 0.8e-3
     insulation_permittivity: float = Field(default=3.0, ge=1.0, le=20.0)
@@ -149,6 +154,11 @@ class BogParams(WireParams):
 
     @model_validator(mode="after")
     def _buried(self):
+        if self.depth > 0 and self.height is not None:
+            raise ValueError(
+                "give height (the axis above the soil, or 'on soil') or depth (the axis below the surface of a "
+                f"buried wire), not both; got height {self.height!r} m and depth {self.depth:g} m"
+            )
         b = self.radius_m + self.insulation_thickness
         if 0 < self.depth < b:
             raise ValueError(
@@ -527,7 +537,8 @@ class Bog(LongWire):
         if p.depth > 0:
             return 0.0
         b = p.radius_m + p.insulation_thickness
-        return b if p.height == "on soil" else max(float(p.height), b)
+        height = BOG_DEFAULT_HEIGHT_M if p.height is None else p.height
+        return b if height == "on soil" else max(float(height), b)
 
     def computed_line(self, freq_hz, ground=None):
         p = self.params

@@ -33,6 +33,10 @@ FLOOR_DBI = -100.0
 KNOWN_COLUMNS = ("azimuth_deg", "elevation_deg", "gain_dbi", "gain_v_dbi", "gain_h_dbi")
 
 
+MAX_PATTERN_BYTES = 20_000_000
+"""The largest pattern file read [bytes] (a 0.5 deg grid of the whole sphere with both polarizations is ~10 MB)."""
+
+
 class TabulatedParams(AntennaParams):
     family: Literal["tabulated"]
     file: str
@@ -45,11 +49,14 @@ def read_pattern_csv(path: str | Path) -> dict[str, np.ndarray]:
 
     Raises ValueError naming the file, line and problem.
     """
+    from snrgain.files import read_limited
+
     path = Path(path)
+    raw = read_limited(path, limit_bytes=MAX_PATTERN_BYTES, what="pattern file")  # InputFileError (ValueError)
     try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ValueError(f"{path}: cannot read pattern file ({exc.strerror or exc})") from None
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ValueError(f"{path}: byte {exc.start + 1} is not UTF-8 text; save the pattern file as UTF-8") from None
     lines = [(i + 1, ln) for i, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]
     if not lines:
         raise ValueError(f"{path}: no header line and no data")

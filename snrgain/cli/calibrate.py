@@ -7,7 +7,16 @@ from pathlib import Path
 import click
 import numpy as np
 
-from snrgain.cli.options import emit_json, handle_errors, readings_preamble, scenario_copy_options, write_output
+from snrgain.cli.options import (
+    FiniteRange,
+    emit_json,
+    handle_errors,
+    progress,
+    read_scenario_text,
+    readings_preamble,
+    scenario_copy_options,
+    write_output,
+)
 
 
 @click.command("calibrate")
@@ -15,7 +24,7 @@ from snrgain.cli.options import emit_json, handle_errors, readings_preamble, sce
 @click.option("--example", is_flag=True, help="Print an example readings file and exit.")
 @click.option(
     "--expected-vf",
-    type=click.FloatRange(0.05, 1.0),
+    type=FiniteRange(0.05, 1.0),
     default=0.8,
     show_default=True,
     help="Velocity factor expected, to pick the branch of a long wire's phase (ignored when the wire is "
@@ -23,7 +32,7 @@ from snrgain.cli.options import emit_json, handle_errors, readings_preamble, sce
 )
 @click.option(
     "--permittivity",
-    type=click.FloatRange(1, 100),
+    type=FiniteRange(1, 100),
     default=None,
     help="Fix the soil's relative permittivity and fit only its conductivity.",
 )
@@ -53,16 +62,17 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
     ):
         return
     try:
-        res = cal.calibrate(
-            cal.load_readings(readings), expected_velocity_factor=expected_vf, permittivity=permittivity
-        )
+        data = cal.load_readings(readings)
+        count = f"{len(data.open_short)} open/short reading(s), {len(data.resonance_hz)} resonance(s)"
+        with progress(None, f"calibrate: fitting {count}"):
+            res = cal.calibrate(data, expected_velocity_factor=expected_vf, permittivity=permittivity)
     except cal.ReadingError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     out = res.as_dict()
     if into is not None and scenario is None:
         raise click.UsageError("--into goes with --scenario and --write")
     if scenario is not None:
-        text = Path(scenario).read_text(encoding="utf-8")
+        text = read_scenario_text(scenario)
         if into is None:
             new = cal.with_ground(text, res.fit.scenario_value())
         else:

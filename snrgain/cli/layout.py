@@ -13,6 +13,7 @@ from snrgain.cli.options import (
     overwrite_option,
     p372_dir_option,
     plot_option,
+    read_scenario_text,
     write_output,
 )
 
@@ -45,9 +46,8 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
     Before you build: keep wires clear of power lines, call the utilities' locating service before
     driving ground rods, and mark wires near the ground: they trip people and animals.
     """
-    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
-
     from snrgain import layout as lay
+    from snrgain.cli.options import progress
     from snrgain.scenario import load, read_source
 
     for target in (write_to, plot):
@@ -55,11 +55,8 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
     data, label, base_dir = read_source(Path(scenario))
     sc = load(data, p372_dir=p372_dir, base_dir=base_dir, label=label)
     problem = lay.Problem(sc, data, base_dir=base_dir)
-    with Progress(
-        TextColumn("layout"), BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(), transient=True
-    ) as bar:
-        task = bar.add_task("designs", total=None)
-        layouts = problem.search(keep=keep, progress=lambda done, total: bar.update(task, completed=done, total=total))
+    with progress(None, "layout: placements") as bar:
+        layouts = problem.search(keep=keep, progress=bar.update)
     out = lay.as_dict(layouts)
     best = layouts[0]
     if plot is not None:
@@ -68,7 +65,7 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
         plots.save(plots.layout_plan(lay.plan_data(problem, best)), plot, overwrite=overwrite)
         out["plot"] = plot
     if write_to is not None:
-        text = Path(scenario).read_text(encoding="utf-8")
+        text = read_scenario_text(scenario)
         write_output(write_to, lay.with_layout(text, best), overwrite=overwrite)
         out["written"] = write_to
     if fmt == "json":

@@ -7,10 +7,13 @@ from pathlib import Path
 import click
 
 from snrgain.cli.options import (
+    FiniteRange,
     check_output,
     emit_json,
     handle_errors,
     plot_option,
+    progress,
+    read_scenario_text,
     readings_preamble,
     scenario_copy_options,
     write_output,
@@ -24,7 +27,7 @@ from snrgain.cli.options import (
 @click.option("--fit-elevation", is_flag=True, help="Fit each source's elevation too (default: held at --elevation).")
 @click.option(
     "--elevation",
-    type=click.FloatRange(0, 85),
+    type=FiniteRange(0, 85),
     default=5.0,
     show_default=True,
     help="Source elevation [deg] when not fitted.",
@@ -58,14 +61,15 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
         check_output(target, overwrite=overwrite)
     data = loc.load_readings(Path(readings))
     try:
-        res = loc.locate(
-            data.readings,
-            freq_hz=data.freq_hz,
-            bandwidth_hz=data.bandwidth_hz,
-            n_sources=sources,
-            fit_elevation=fit_elevation,
-            elevation_deg=elevation,
-        )
+        with progress(None, f"locate: fitting {sources} source(s) to {len(data.readings)} reading(s)"):
+            res = loc.locate(
+                data.readings,
+                freq_hz=data.freq_hz,
+                bandwidth_hz=data.bandwidth_hz,
+                n_sources=sources,
+                fit_elevation=fit_elevation,
+                elevation_deg=elevation,
+            )
     except loc.LocateError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
@@ -75,7 +79,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
         plots.save(plots.located_sources(res), plot, overwrite=overwrite)
         out["plot"] = plot
     if scenario is not None:
-        text = Path(scenario).read_text(encoding="utf-8")
+        text = read_scenario_text(scenario)
         write_output(
             write_to,
             loc.with_sources(text, res, at_m=data.at_m, distances_m=data.distances_m, name=name),
@@ -85,7 +89,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
     if fmt == "json":
         emit_json(out)
         return
-    lines = [("fit: " if res.ok else "FIT FAILED: ") + res.message]
+    lines = [res.message if res.ok else "FIT FAILED: " + res.message]
     for i, s in enumerate(res.sources):
         amb = f" (or {(s.bearing_deg + 180) % 360:.0f} deg)" if s.ambiguous_180 else ""
         lines.append(

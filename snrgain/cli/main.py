@@ -32,17 +32,73 @@ def cli():
     """
 
 
-def _end_cleanly_on_sigterm() -> None:
-    """A SIGTERM (kill) ends the command as Ctrl-C does, so that files being written are cleaned up."""
+class Interrupted(BaseException):
+    """Ctrl-C or SIGTERM: raised in the main thread by the handlers :func:`main` installs, caught there only.
+
+    A BaseException that is not a KeyboardInterrupt, so neither library code (``except Exception``) nor click
+    (which turns a KeyboardInterrupt into "Aborted!" and exit 1) swallows it on the way out; ``finally`` blocks and
+    the file writers' clean-up still run."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+_received: list[int] = []
+"""The signals received (the first decides the exit code)."""
+
+
+def _interrupt_on_signals() -> None:
+    """Ctrl-C (SIGINT) and SIGTERM raise :class:`Interrupted`; a second signal while the first unwinds is ignored.
+
+    Python runs a signal handler wherever the main thread is; if that is a finaliser (an object's ``__del__``, a
+    weakref callback, which matplotlib has), the exception cannot propagate: Python would print "Exception
+    ignored" with a traceback and carry on.  The unraisable hook catches that case quietly and sends the signal
+    again a moment later from a helper thread, so it lands in ordinary code; and :func:`main` exits with the
+    signal's code even if the work finished meanwhile."""
+    import os
     import signal
+    import sys
+    import threading
 
     def handler(signum, frame):
-        raise KeyboardInterrupt
+        _received.append(signum)
+        for sig in (signal.SIGINT, signal.SIGTERM):
+            signal.signal(sig, signal.SIG_IGN)
+        raise Interrupted(signum)
 
+    previous_hook = sys.unraisablehook
+
+    def unraisable(args):
+        if not isinstance(args.exc_value, Interrupted):
+            previous_hook(args)
+            return
+        for sig in (signal.SIGINT, signal.SIGTERM):
+            signal.signal(sig, handler)
+        again = threading.Timer(0.01, os.kill, (os.getpid(), args.exc_value.signum))
+        again.daemon = True
+        again.start()
+
+    for sig in (signal.SIGINT, signal.SIGTERM):
+        try:
+            signal.signal(sig, handler)
+        except ValueError:  # not the main thread (e.g. under a test runner's thread)
+            return
+    sys.unraisablehook = unraisable
+
+
+def _stopped(signum: int) -> None:
+    import signal
+    import sys
+
+    name = "SIGTERM" if signum == signal.SIGTERM else "Ctrl-C"
     try:
-        signal.signal(signal.SIGTERM, handler)
-    except ValueError:  # not the main thread (e.g. under a test runner's thread)
+        sys.stderr.write(f"\nsnrgain: stopped by {name}; no output was left half-written\n")
+        sys.stderr.flush()
+    except (OSError, ValueError):
         pass
+    # The shell's convention: 128 + the signal's number (130 for Ctrl-C, 143 for SIGTERM).
+    sys.exit(128 + int(signum))
 
 
 cli.add_command(rank)
@@ -64,12 +120,19 @@ def main() -> None:
 
     # Floating-point warnings name source lines, which say nothing to a user; results carry their own checks.
     warnings.filterwarnings("ignore", category=RuntimeWarning)
-    _end_cleanly_on_sigterm()
+    _interrupt_on_signals()
     # The command line owns its process: keep freed memory for the next array (snrgain.allocator).
     from snrgain.allocator import tune
 
     tune()
-    cli()
+    try:
+        cli()
+    except Interrupted as exc:
+        _stopped(exc.signum)
+    except SystemExit:
+        if _received:  # the signal was caught where it could not stop the work (see _interrupt_on_signals)
+            _stopped(_received[0])
+        raise
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -6,24 +6,22 @@ import click
 import numpy as np
 
 from snrgain.cli.options import (
+    FiniteRange,
     check_output,
     emit_json,
     handle_errors,
     json_text,
     overwrite_option,
     p372_dir_option,
+    progress,
     write_output,
 )
 from snrgain.constants import MAN_MADE_CHOICES
 
 
 @click.command("noise")
-@click.option(
-    "--lat", "lat", type=click.FloatRange(-90, 90), required=True, help="Site latitude [deg, north positive]."
-)
-@click.option(
-    "--lon", "lon", type=click.FloatRange(-180, 360), required=True, help="Site longitude [deg, east positive]."
-)
+@click.option("--lat", "lat", type=FiniteRange(-90, 90), required=True, help="Site latitude [deg, north positive].")
+@click.option("--lon", "lon", type=FiniteRange(-180, 360), required=True, help="Site longitude [deg, east positive].")
 @click.option("--month", type=click.IntRange(1, 12), required=True, help="Month, 1-12.")
 @click.option("--frequency", required=True, help="Frequency with its unit, e.g. '1.83 MHz'.")
 @click.option(
@@ -36,7 +34,7 @@ from snrgain.constants import MAN_MADE_CHOICES
 @click.option("--galactic/--no-galactic", default=True, show_default=True, help="Include galactic noise.")
 @click.option(
     "--hour",
-    type=click.FloatRange(0, 24, max_open=True),
+    type=FiniteRange(0, 24, max_open=True),
     default=4.0,
     show_default=True,
     help="UTC hour for the direction distribution of atmospheric noise.",
@@ -73,9 +71,10 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
         f = check_frequency_hz(parse_quantity(frequency, "frequency"))
     except ValueError as exc:
         raise ValueError(f"--frequency: {exc}") from None
-    data = noise_over_day(
-        lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
-    )
+    with progress(None, "noise: 24 hours and the storms' directions"):
+        data = noise_over_day(
+            lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
+        )
     if output is not None:
         write_output(output, json_text(data), overwrite=overwrite)
         return

@@ -6,9 +6,11 @@ Diagnostics go to stderr, results to stdout.  Exit codes: 2 for bad input
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import json
 import sys
+from collections.abc import Iterator
 from pathlib import Path
 
 import click
@@ -19,6 +21,32 @@ from snrgain.units import QuantityError
 
 EXIT_BAD_INPUT = 2
 EXIT_FAILURE = 1
+
+
+class FiniteRange(click.FloatRange):
+    """A number option within a range that also refuses nan and inf (click's FloatRange lets nan through: every
+    comparison with nan is false), and reads the digits of any script as the number they show."""
+
+    name = "number"
+
+    def convert(self, value, param, ctx):
+        import math
+
+        if isinstance(value, str):
+            from snrgain.units import QuantityError, normalise_text
+
+            try:
+                value = normalise_text(value).strip()
+            except QuantityError as exc:
+                self.fail(str(exc), param, ctx)
+        try:
+            x = float(value)
+        except (TypeError, ValueError):
+            self.fail(f"{value!r} is not a number", param, ctx)
+        if not math.isfinite(x):
+            self.fail(f"{value!r} is not a finite number; give a number within {self._describe_range()}", param, ctx)
+        return super().convert(x, param, ctx)
+
 
 scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=Path))
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
@@ -35,6 +63,58 @@ def plot_option(what: str):
     return click.option(
         "--plot", type=click.Path(dir_okay=False, path_type=str), default=None, help=f"Save {what} (PNG or SVG)."
     )
+
+
+def show_progress() -> bool:
+    """Whether to draw progress: only when stderr is a terminal (never into a pipe, a log or a test's capture)."""
+    try:
+        return sys.stderr.isatty()
+    except (AttributeError, ValueError):
+        return False
+
+
+class Progress:
+    """What :func:`progress` yields: ``step(n=1)`` as work is done, or ``step.update(done, total)``."""
+
+    def __init__(self, bar=None, task=None):
+        self._bar, self._task = bar, task
+
+    def __call__(self, n: int = 1) -> None:
+        if self._bar is not None:
+            self._bar.advance(self._task, n)
+
+    def update(self, done: int, total: int | None = None) -> None:
+        if self._bar is not None:
+            self._bar.update(self._task, completed=done, **({} if total is None else {"total": total}))
+
+
+@contextlib.contextmanager
+def progress(total: int | None, what: str) -> Iterator[Progress]:
+    """Progress of a step that can take over a second, drawn with rich on stderr when it is a terminal.
+
+    ``total``: the count of work announced up front (designs, readings, figures), or None for a step whose size
+    is not known (a spinner with the time taken).  Yields a :class:`Progress` to call as work is done; with no
+    terminal it draws nothing (nothing reaches a pipe, a log or a test's captured output).
+
+        with progress(len(jobs), "figures") as step:
+            for job in jobs:
+                ...
+                step()
+    """
+    if not show_progress():
+        yield Progress()
+        return
+    from rich.console import Console
+    from rich.progress import BarColumn, MofNCompleteColumn, SpinnerColumn, TextColumn, TimeElapsedColumn
+    from rich.progress import Progress as Bar
+
+    columns = [SpinnerColumn(), TextColumn("{task.description}")]
+    if total is not None:
+        columns += [BarColumn(), MofNCompleteColumn()]
+    columns.append(TimeElapsedColumn())
+    with Bar(*columns, console=Console(stderr=True), transient=True) as bar:
+        label = f"{what} ({total:,})" if total is not None else what
+        yield Progress(bar, bar.add_task(label, total=total))
 
 
 def fail(message: str, code: int) -> None:
@@ -54,8 +134,8 @@ def handle_errors(fn):
 
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
             sys.exit(EXIT_FAILURE)
-        except KeyboardInterrupt:
-            fail("interrupted; nothing was written", EXIT_FAILURE)
+        except KeyboardInterrupt:  # Ctrl-C outside the `snrgain` entry point (which raises its own Interrupted)
+            fail("interrupted; no output was left half-written", 130)
         except OutputExistsError as exc:
             fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
         except ReadingsError as exc:
@@ -119,6 +199,13 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
     if (scenario is None) != (write_to is None):
         raise click.UsageError("--scenario and --write go together")
     return False
+
+
+def read_scenario_text(path) -> str:
+    """A scenario's text to copy (calibrate, locate, layout --write): a regular UTF-8 file within the size limit."""
+    from snrgain.scenario import read_text_file
+
+    return read_text_file(Path(path))
 
 
 def emit_json(data) -> None:

@@ -54,10 +54,12 @@ def rank(scenario, fmt, build, output, overwrite, nside, p372_dir):
     the set of antennas to build and which serves which target at which hours.
     """
     from snrgain import output as out
+    from snrgain.cli.options import progress
     from snrgain.pipeline import evaluate
 
     check_output(output, overwrite=overwrite)
-    results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+    with progress(None, f"rank: evaluating {scenario}"):
+        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     if fmt == "json":

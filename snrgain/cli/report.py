@@ -12,6 +12,7 @@ from snrgain.cli.options import (
     nside_option,
     overwrite_option,
     p372_dir_option,
+    progress,
     scenario_argument,
     write_output,
 )
@@ -39,10 +40,13 @@ def report(scenario, output, overwrite, nside, p372_dir):
     from snrgain.pipeline import evaluate
 
     check_output(output, overwrite=overwrite)
-    results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+    with progress(None, f"report: evaluating {scenario}"):
+        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
-    write_output(output, rep.render(results), overwrite=overwrite)
+    with progress(None, "report: drawing the figures"):
+        html = rep.render(results)
+    write_output(output, html, overwrite=overwrite)
 
 
 @click.command("figures")
@@ -74,7 +78,8 @@ def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
     if not d.is_dir():
         raise FileNotFoundError(f"folder {d} does not exist")
     names = list(only) or list(plots.FIGURES)
-    results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+    with progress(None, f"figures: evaluating {scenario}"):
+        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
     if "plan" in names and not plots.has_site_plan(results):
         if only:
             raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
@@ -89,6 +94,18 @@ def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
     existing = [str(p) for p, _, _ in jobs if p.exists()]
     if existing and not overwrite:
         raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
-    for path, fn, kw in jobs:
-        plots.save(fn(results, **kw), path, overwrite=overwrite)
+    from snrgain.files import write_set
+
+    with progress(len(jobs), "figures") as step:
+
+        def writer(fn, kw):
+            def write(tmp_path):
+                plots.save(fn(results, **kw), tmp_path)
+                step()
+
+            return write
+
+        # The set is drawn into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
+        written = write_set(d, {p.name: writer(fn, kw) for p, fn, kw in jobs}, overwrite=overwrite)
+    for path in written:
         click.echo(f"wrote {path}", err=True)

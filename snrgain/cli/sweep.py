@@ -39,7 +39,7 @@ from snrgain.cli.options import (
     "--spread/--no-spread",
     default=False,
     show_default=True,
-    help="Add the median, 10 %% and 90 %% points and the probability of beating the reference (each design a "
+    help="Add the median, 10 % and 90 % points and the probability of beating the reference (each design a "
     "full run with the scenario's [uncertainty]); by default the nominal SNR gain only.",
 )
 @click.option(
@@ -62,9 +62,8 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, nside, p372
     Only a candidate's own keys varying: the sky and the reference are computed once, so thousands of designs
     take seconds.  Varying the site, band, time or reference, or asking --spread, runs each design in full.
     """
-    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
-
     from snrgain import sweep as sw
+    from snrgain.cli.options import progress
     from snrgain.scenario import read_source
 
     check_output(output, overwrite=overwrite)
@@ -86,15 +85,6 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, nside, p372
     total = sw.design_count(parsed)
     if total > sw.MAX_DESIGNS:
         raise ValueError(f"--vary: {total} designs is too many (at most {sw.MAX_DESIGNS})")
-    with Progress(
-        TextColumn("sweep"), BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(), transient=False, console=None
-    ) as bar:
-        task = bar.add_task("designs", total=total)
-        n = sw.run(
-            study,
-            output,
-            overwrite=overwrite,
-            dask=dask_address,
-            progress=lambda done: bar.update(task, completed=done),
-        )
+    with progress(total, "sweep: designs") as bar:
+        n = sw.run(study, output, overwrite=overwrite, dask=dask_address, progress=bar.update)
     click.echo(f"wrote {output}: {n} designs", err=True)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from snrgain.cli.options import emit_json, handle_errors
+from snrgain.cli.options import FiniteRange, emit_json, handle_errors, progress
 
 
 class WireFamily(click.Choice):
@@ -36,10 +36,10 @@ class WireFamily(click.Choice):
 @click.option("--diameter", default=None, help="Wire diameter with unit instead of --gauge, e.g. '1.6 mm'.")
 @click.option("--ground", default="moist loam", show_default=True, help="Named ground (see README) or 'perfect'.")
 @click.option("--conductivity", default=None, help="Ground conductivity instead of --ground, e.g. '5 mS/m'.")
-@click.option("--permittivity", type=click.FloatRange(1, 100), default=None, help="Ground relative permittivity.")
+@click.option("--permittivity", type=FiniteRange(1, 100), default=None, help="Ground relative permittivity.")
 @click.option(
     "--elevation",
-    type=click.FloatRange(0, 90),
+    type=FiniteRange(0, 90),
     default=20.0,
     show_default=True,
     help="Target elevation [deg] along the wire's bearing, for RDF and the length rule.",
@@ -109,7 +109,8 @@ def wire(
         coax=int(coax),
         depth=depth,
     )
-    out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
+    with progress(None, "wire: line constants, length and termination"):
+        out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
     if fmt == "json":
         emit_json(out)
         return
