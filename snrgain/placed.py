@@ -117,6 +117,18 @@ def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) ->
     return complex(current)
 
 
+def hears(antenna, src, freq_hz: float, reference_m) -> bool:
+    """Whether an antenna takes any power from a placed source (received_power > 0), decided from its partial
+    gains toward the source and the polarisations the source radiates, without the source's field (whose
+    magnitude is never zero off the source): light enough for ``snrgain check``."""
+    if antenna.integrates_near_sources or antenna.composite:
+        return True
+    at = antenna_point(antenna, reference_m)
+    gv, gh = antenna.partial_gains(freq_hz, bearing_to(src, at[None, :]), np.array([src.elevation_rad]))
+    share_v, share_h = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}[src.polarisation]
+    return bool(share_v * gv[0] + share_h * gh[0] > 0)
+
+
 def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:
     """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain;
     ``at_m`` puts the antenna (its feed point) there instead of at its position."""

@@ -856,8 +856,7 @@ def _local_levels_readable(
         if src.position_m is not None:
             from snrgain import placed
 
-            ground = make_ground(site.ground)
-            if not placed.received_power(reference, src, freq_hz, ref_m, ground) > 0:
+            if not placed.hears(reference, src, freq_hz, ref_m):
                 out.append(
                     (
                         f"{where}.level",
@@ -893,7 +892,7 @@ def _antenna_outline(antenna, reference_m) -> list[np.ndarray]:
         return [p for p in pts] + [pts.mean(axis=0)]
     p = antenna.params.position
     p = np.asarray(reference_m if p is None else p, dtype=float)
-    if antenna.family in WIRE_FAMILIES:
+    if antenna.long_wire:
         b = antenna.bearing_rad
         return [np.array([p, p + antenna.length_m * np.array([np.sin(b), np.cos(b)])])]
     return [p]
@@ -920,7 +919,7 @@ def _local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteS
         src = _local_source(raw, site, ref_m)
         point = np.asarray(src.position_m, dtype=float)
         for ant, where in zip(antennas, wheres):
-            if ant.family == "combination":
+            if ant.composite:
                 continue
             gaps = []
             for shape in _antenna_outline(ant, ref_m):

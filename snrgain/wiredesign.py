@@ -212,7 +212,7 @@ def wire_spec(
             raise ValueError(f"depth: only a bog (a wire on the ground) can be buried, not a {family}")
         if height is not None:
             raise ValueError("depth: a buried wire has no height above the soil; give one or the other")
-        del spec["height"]  # a buried BOG takes no height (the family refuses the pair)
+        spec.pop("height", None)  # a buried BOG takes no height (the family refuses the pair)
         spec["depth"] = depth
     if "far_ground" in takes:
         spec["far_ground"] = far_ground
