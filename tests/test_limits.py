@@ -37,3 +37,4 @@ def test_past_the_limits_is_refused_up_front_with_the_estimate(tmp_path):
     res = CliRunner().invoke(cli, ["rank", str(path)])
     assert res.exit_code == 2 and "Traceback" not in res.output
     assert "would take about" in res.output and "--allow-long" in res.output
+    assert "--allow-long" in CliRunner().invoke(cli, ["rank", "--help"]).output

@@ -50,6 +50,12 @@ class FiniteRange(click.FloatRange):
 
 scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=Path))
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
+allow_long_option = click.option(
+    "--allow-long",
+    is_flag=True,
+    help="Run a scenario whose estimated cost passes the limits (300 s or 4 GB); without it such a scenario is "
+    "refused before any work, with the estimate and what would fit.",
+)
 nside_option = click.option(
     "--nside",
     type=click.Choice(["8", "16", "32", "64", "128"]),

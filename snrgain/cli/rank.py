@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from snrgain.cli.options import (
+    allow_long_option,
     check_output,
     handle_errors,
     nside_option,
@@ -39,10 +40,11 @@ from snrgain.cli.options import (
     help="Write to this file instead of standard output (whole or not at all).",
 )
 @overwrite_option
+@allow_long_option
 @nside_option
 @p372_dir_option
 @handle_errors
-def rank(scenario, fmt, build, output, overwrite, nside, p372_dir):
+def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir):
     """Which antenna to build for each target of SCENARIO, and how much better than its reference.
 
     SNR gain is (S/N of the candidate) / (S/N of the reference) toward a
@@ -59,7 +61,7 @@ def rank(scenario, fmt, build, output, overwrite, nside, p372_dir):
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"rank: evaluating {scenario}"):
-        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, allow_long=allow_long)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     if fmt == "json":

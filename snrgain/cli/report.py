@@ -7,6 +7,7 @@ from pathlib import Path
 import click
 
 from snrgain.cli.options import (
+    allow_long_option,
     check_output,
     handle_errors,
     nside_option,
@@ -28,10 +29,11 @@ from snrgain.cli.options import (
     help="The HTML file to write (whole or not at all).",
 )
 @overwrite_option
+@allow_long_option
 @nside_option
 @p372_dir_option
 @handle_errors
-def report(scenario, output, overwrite, nside, p372_dir):
+def report(scenario, output, overwrite, allow_long, nside, p372_dir):
     """Write one self-contained HTML report for SCENARIO: summary, ranking, figures, models, safety.
 
     The file has no scripts and loads nothing from the network; it prints cleanly.
@@ -41,7 +43,7 @@ def report(scenario, output, overwrite, nside, p372_dir):
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"report: evaluating {scenario}"):
-        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, allow_long=allow_long)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     with progress(None, "report: drawing the figures"):
@@ -66,10 +68,11 @@ def report(scenario, output, overwrite, nside, p372_dir):
     help="Only these figures (repeatable); default all that apply.",
 )
 @overwrite_option
+@allow_long_option
 @nside_option
 @p372_dir_option
 @handle_errors
-def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
+def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
     from snrgain import plots
     from snrgain.pipeline import evaluate
@@ -79,7 +82,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, nside, p372_dir):
         raise FileNotFoundError(f"folder {d} does not exist")
     names = list(only) or list(plots.FIGURES)
     with progress(None, f"figures: evaluating {scenario}"):
-        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir)
+        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, allow_long=allow_long)
     if "plan" in names and not plots.has_site_plan(results):
         if only:
             raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
