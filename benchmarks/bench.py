@@ -176,8 +176,8 @@ def layout_benchmark():
     target: under 60 s on 2 cores."""
     import copy
 
-    from snrgain.layout import Problem
     from snrgain.scenario import load, read_source
+    from snrgain.tools.layout import Problem
 
     data, _, base = read_source(REPO / "tests" / "data" / "layout-two-beverages.toml")
     small = copy.deepcopy(data)
@@ -205,7 +205,7 @@ def layout_benchmark():
 def steering_benchmarks(data):
     """Auto steering of a four-element array: for RDF (uniform sky), and for SNR under the Alder Hollow sky (one
     month of 8 hours, local source included), with and without coupling (target: under 1 s each)."""
-    import snrgain.pipeline as pl
+    import snrgain.model.pipeline as pl
     from noisemodels.sphere import upper_hemisphere
     from snrgain.scenario import load
 
@@ -249,7 +249,7 @@ def steering_benchmarks(data):
 
 def long_wire_benchmarks(from_spec, upper_hemisphere):
     """A 300 m wire: our pattern vs the same directions through PyNEC; a 1,000-design RDF sweep."""
-    from snrgain import wiredesign
+    from snrgain.tools import wiredesign
 
     grid = upper_hemisphere(32)
     spec = {
@@ -543,7 +543,8 @@ def realistic_site():
         t_check = _best_subprocess([*cli, "check", str(SITE)], env=env)
         # What `rank` imports before it starts work: the command line and the pipeline's modules.
         t_start = _best_subprocess(
-            [py, "-c", "import snrgain.cli.main, snrgain.pipeline, snrgain.scenario, snrgain.output"], env=env
+            [py, "-c", "import snrgain.cli.main, snrgain.model.pipeline, snrgain.scenario, snrgain.outputs.output"],
+            env=env,
         )
         t_cold = _best_subprocess([*cli, "rank", str(SITE)], n=3, env=cold)
         subprocess.run([*cli, "rank", str(SITE)], check=True, capture_output=True, env=env)  # fills the cache

@@ -3,7 +3,7 @@
     python examples/python_api.py OUT_DIR
 
 Writes OUT_DIR/azimuth.png and OUT_DIR/length-sweep.png and prints what it finds.  Everything here is the
-public API: snrgain.evaluate, snrgain.antennas.from_si / variant, snrgain.plots (figures draw on matplotlib
+public API: snrgain.evaluate, snrgain.antennas.from_si / variant, snrgain.outputs.plots (figures draw on matplotlib
 Figure objects or on axes you pass, and never change your backend).
 """
 
@@ -16,8 +16,8 @@ import numpy as np
 from matplotlib.figure import Figure
 
 import snrgain
-from snrgain import plots
 from snrgain.antennas import from_si, variant
+from snrgain.outputs import plots
 
 SCENARIO = Path(__file__).resolve().parents[1] / "scenarios" / "marrow-fen.toml"
 FREQ_HZ = 1.83e6

@@ -3,7 +3,7 @@
 The values are those of ``scipy.constants`` (CODATA 2022; c and k exact in the 2019 SI), and a test checks that
 they equal scipy's to the last digit.  They are written out here rather than imported from scipy.constants,
 because importing that module loads scipy's array-API layer (numpy.testing, numpy.f2py and more: as long as
-half a bare numpy import), which ``snrgain check`` and ``--help`` must not pay for.  snrgain.ground re-exports
+half a bare numpy import), which ``snrgain check`` and ``--help`` must not pay for.  snrgain.physics.ground re-exports
 them under the names the antenna models use; noisemodels uses them directly.
 """
 

@@ -16,14 +16,14 @@ from importlib import import_module
 __version__ = "0.1.0"
 
 _LAZY = {
-    "evaluate": "snrgain.pipeline",
+    "evaluate": "snrgain.model.pipeline",
     "load": "snrgain.scenario",
     "Scenario": "snrgain.scenario",
     "ScenarioError": "snrgain.scenario",
-    "Results": "snrgain.results",
-    "AntennaResult": "snrgain.results",
-    "Notice": "snrgain.notices",
-    "SkySeries": "snrgain.noise",
+    "Results": "snrgain.model.results",
+    "AntennaResult": "snrgain.model.results",
+    "Notice": "snrgain.model.notices",
+    "SkySeries": "snrgain.sky.noise",
 }
 
 __all__ = [*_LAZY, "__version__"]

@@ -1,6 +1,6 @@
 """Tool-wide limits and choice lists: one home for each.
 
-Physical constants live in :mod:`snrgain.ground`; P.372's own tables in
+Physical constants live in :mod:`snrgain.physics.ground`; P.372's own tables in
 :mod:`noisemodels.p372`.
 """
 

@@ -33,3 +33,27 @@ class TooLargeError(ValueError):
     def __init__(self, message: str, field: str = "uncertainty.samples"):
         self.field = field
         super().__init__(message)
+
+
+class Interrupted(BaseException):
+    """Ctrl-C or SIGTERM: raised in the main thread by the handlers the command line installs, caught there only.
+
+    A BaseException that is not a KeyboardInterrupt, so neither library code (``except Exception``) nor click
+    (which turns a KeyboardInterrupt into "Aborted!" and exit 1) swallows it on the way out; ``finally`` blocks and
+    the file writers' clean-up still run."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+RECEIVED: list[int] = []
+"""The stop signals the command line's handlers have received (the first decides the exit code).  A handler's
+exception can be lost where Python cannot raise it (a finaliser; the compiler while a module is imported); the
+writers look here before putting an output in place, so a stop asked for is never followed by a new output."""
+
+
+def stop_if_asked() -> None:
+    """Raise :class:`Interrupted` if the command line has received a stop signal."""
+    if RECEIVED:
+        raise Interrupted(RECEIVED[0])

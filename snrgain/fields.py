@@ -26,8 +26,8 @@ from pydantic import (
     model_validator,
 )
 
-from snrgain import ground as groundmod
-from snrgain import lines
+from snrgain.physics import ground as groundmod
+from snrgain.physics import lines
 from snrgain.units import DIMENSIONS, parse_attenuation_db_per_100m, parse_db, parse_power_dbm, parse_quantity
 
 SI_CONTEXT = {"si": True}
@@ -142,7 +142,7 @@ class StrictModel(BaseModel):
 
 class GroundRod(StrictModel):
     """One driven ground rod at a wire's end; its resistance follows from the site's soil (Dwight's formula,
-    snrgain.ground.rod_resistance_ohm)."""
+    snrgain.physics.ground.rod_resistance_ohm)."""
 
     rod_length: quantity("length", ge=0.3, le=10.0) = groundmod.ROD_LENGTH_M
     rod_diameter: quantity("length", ge=0.005, le=0.05) = groundmod.ROD_DIAMETER_M
@@ -175,7 +175,8 @@ def _connection(value, info: ValidationInfo):
         raise ValueError(f"expected {_CONNECTION_CHOICES}; {err}") from None
 
 
-# A wire end's connection to earth: a resistance, "rod" or a rod of given size (snrgain.ground.rod_resistance_ohm).
+# A wire end's connection to earth: a resistance, "rod" or a rod of given size
+# (snrgain.physics.ground.rod_resistance_ohm).
 GroundConnection = Annotated[float | Literal["rod"] | GroundRod, BeforeValidator(_connection)]
 
 

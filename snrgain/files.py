@@ -23,6 +23,8 @@ import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
+from snrgain.errors import stop_if_asked
+
 TMP_PREFIX = ".snrgain-tmp-"
 """The start of every temporary file or folder snrgain makes beside its outputs."""
 _TMP_NAME = re.compile(re.escape(TMP_PREFIX) + r"(\d+)-")
@@ -191,6 +193,7 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
                 fh.write(data)
         if not overwrite and p.exists():
             raise OutputExistsError(p)
+        stop_if_asked()  # a stop whose exception was lost on the way (errors.RECEIVED) still stops here
         if p.is_file():  # a replaced file keeps its permissions
             mode = p.stat().st_mode & 0o7777
         else:
@@ -227,6 +230,7 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
             tmp_dir = Path(tempfile.mkdtemp(prefix=_tmp_prefix("set"), dir=d))
         for name, write in writers.items():
             write(tmp_dir / name)
+        stop_if_asked()
         with _SignalsDeferred():
             for name, target in zip(writers, targets):
                 src = tmp_dir / name

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from snrgain.antennas import FAMILIES, SpecError, from_spec
-from snrgain.ground import C_M_PER_S
+from snrgain.physics.ground import C_M_PER_S
 
 F = 1.83e6
 QUARTER = C_M_PER_S / F / 4

@@ -111,16 +111,16 @@ def test_family_lists_come_from_the_capabilities():
 
 
 def test_notice_has_its_own_module():
-    from snrgain import notices, results
+    from snrgain.model import notices, results
 
     assert results.Notice is notices.Notice  # the documented path still works
     imported = {
         n.module
-        for n in ast.walk(ast.parse((PACKAGE / "messages.py").read_text(encoding="utf-8")))
+        for n in ast.walk(ast.parse((PACKAGE / "outputs" / "messages.py").read_text(encoding="utf-8")))
         if isinstance(n, ast.ImportFrom)
     }
-    assert "snrgain.results" not in imported  # no results <-> messages circle
-    assert "snrgain.notices" in imported
+    assert "snrgain.model.results" not in imported  # no results <-> messages circle
+    assert "snrgain.model.notices" in imported
 
 
 @pytest.mark.parametrize("module", ["snrgain.cli.main", "snrgain.constants"])

@@ -2,7 +2,7 @@
 
 Published values: the directivity of a short monopole over a perfect ground plane, 3 (4.77 dB), and of a
 quarter-wave monopole, 3.28 (5.15 dB) (J. D. Kraus, "Antennas", 2nd ed. (1988), Sections 5-6 and 16-3).
-The rest are invariants of the definitions in snrgain.spread and snrgain.plan.
+The rest are invariants of the definitions in snrgain.model.spread and snrgain.decide.plan.
 """
 
 import numpy as np
@@ -10,11 +10,11 @@ import pytest
 from click.testing import CliRunner
 
 import snrgain
-from snrgain import plan as planmod
-from snrgain.build import coax_length_m, nearest_standard_ohm
 from snrgain.cli.main import cli
-from snrgain.ground import C_M_PER_S, class_spread
-from snrgain.spread import ground_nodes, weighted_quantiles
+from snrgain.decide import plan as planmod
+from snrgain.decide.build import coax_length_m, nearest_standard_ohm
+from snrgain.model.spread import ground_nodes, weighted_quantiles
+from snrgain.physics.ground import C_M_PER_S, class_spread
 from tests.conftest import HAVE_P372, MINIMAL, P372_DIR, SCENARIOS, demo_params
 
 NO_SPREAD = "\n[uncertainty]\nground = false\nnoise_deciles = false\nlocal_sources = false\nhours = false\n"
@@ -87,7 +87,7 @@ def test_best_is_the_highest_median_in_every_demo(path, monkeypatch):
 
 
 def _worth(r, members) -> float:
-    # The plan's worth from its definition (snrgain.plan): the weighted mean over targets of the serving member's
+    # The plan's worth from its definition (snrgain.decide.plan): the weighted mean over targets of the serving member's
     # median SNR gain as a power ratio, in dB; never a sum or mean of dB over targets.
     w = np.array([t["weight"] for t in r.targets])
     best = [max(a.snr_gain_median_db[i] for a in members) for i in range(len(r.targets))]
@@ -299,7 +299,7 @@ def test_ground_range_sets_the_spread_and_its_middle():
 def test_build_sheet_says_when_the_termination_hardly_matters():
     # A wire that loses more than 20 dB end to end returns what its far end reflects 40 dB down.
     from snrgain.antennas import from_spec
-    from snrgain.build import build_sheet
+    from snrgain.decide.build import build_sheet
 
     buried = build_sheet(
         from_spec({"family": "bog", "length": "40 m", "depth": "10 cm", "ground": "moist loam"}), 1.83e6

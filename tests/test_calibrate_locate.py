@@ -9,12 +9,12 @@ from click.testing import CliRunner
 
 from noisemodels import p372, sky
 from noisemodels.sphere import upper_hemisphere
-from snrgain import calibrate as cal
 from snrgain.antennas import from_spec
 from snrgain.cli.main import cli
-from snrgain.ground import C_M_PER_S
-from snrgain.locate import LocateError, Reading, locate
-from snrgain.receiver import power_dbm
+from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.receiver import power_dbm
+from snrgain.tools import calibrate as cal
+from snrgain.tools.locate import LocateError, Reading, locate
 from tests.conftest import REPO, SCENARIOS
 
 F = 1.83e6

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 import snrgain
-from snrgain import chain
+from snrgain.physics import chain
 from snrgain.units import parse_power_dbm, s_units
 
 
@@ -53,7 +53,7 @@ def test_s_meter_conversions():
 
 
 def test_cable_table_is_consistent_with_the_textbook_coax_loss():
-    # A consistency check, not an independent one: the generic cables' losses (snrgain.chain.CABLES) are the
+    # A consistency check, not an independent one: the generic cables' losses (snrgain.physics.chain.CABLES) are the
     # project's assumption (typical values recalled, not verified against any datasheet).  The two-point fit
     # k1 sqrt(f) + k2 f passes through both of its points and between them lies above the sqrt(f) line through
     # the 1 MHz point (the dielectric term is positive).

@@ -6,7 +6,7 @@ import pytest
 from click.testing import CliRunner
 
 from snrgain.cli.main import cli
-from snrgain.results import SCHEMA_VERSION
+from snrgain.model.results import SCHEMA_VERSION
 from tests.conftest import SCENARIOS
 
 

@@ -84,7 +84,7 @@ def test_combination_bad_input(antennas, message, tmp_path):
 
 
 def test_the_plan_says_what_else_to_build(tmp_path):
-    from snrgain.output import also_build
+    from snrgain.outputs.output import also_build
 
     r = snrgain.evaluate(_scenario(_combo("auto")))
     assert r.plan.antennas[0] == "auto"

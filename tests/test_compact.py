@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 
 from noisemodels.sphere import upper_hemisphere
-from snrgain import snr
 from snrgain.antennas import SpecError, from_spec
-from snrgain.ground import C_M_PER_S
+from snrgain.model import snr
+from snrgain.physics.ground import C_M_PER_S
 from tests.conftest import REPO
 
 REF = json.loads((REPO / "tests" / "nec" / "reference.json").read_text())

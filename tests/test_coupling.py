@@ -9,10 +9,10 @@ import pytest
 from scipy.special import sici
 
 from noisemodels.sphere import upper_hemisphere
-from snrgain import snr
 from snrgain.antennas import SpecError, from_spec
 from snrgain.antennas.coupling import monopole_impedance
-from snrgain.ground import C_M_PER_S, ETA0_OHM
+from snrgain.model import snr
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 from tests.conftest import REPO
 
 COUPLED = json.loads((REPO / "tests" / "nec" / "coupled.json").read_text())
@@ -156,7 +156,7 @@ def test_coupled_feeds_reach_quarter_wave_elements_and_refuse_bad_input():
 def test_one_coupled_element_is_the_lone_vertical():
     # With one element, coupling has nothing to couple: current forcing gives the vertical's own pattern and a line
     # feed its pattern less the mismatch loss of its base impedance against the line (Kraus, Antennas, Section 2-13).
-    from snrgain.lines import mismatch_factor
+    from snrgain.physics.lines import mismatch_factor
 
     h = 0.2 * LAM
     lone = from_spec({"family": "vertical", "height": f"{h} m", "ground": "moist loam", "ground_loss": 15})

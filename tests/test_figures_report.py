@@ -9,8 +9,8 @@ import pytest
 from click.testing import CliRunner
 
 import snrgain
-from snrgain import plots, report
 from snrgain.cli.main import cli
+from snrgain.outputs import plots, report
 from tests.conftest import HAVE_P372, P372_DIR, SCENARIOS
 
 

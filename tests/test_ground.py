@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from snrgain import ground
-from snrgain.ground import Ground, fresnel_horizontal, fresnel_vertical
+from snrgain.physics import ground
+from snrgain.physics.ground import Ground, fresnel_horizontal, fresnel_vertical
 
 
 def _snell_impedance_form(psi, eps_c):

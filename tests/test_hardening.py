@@ -256,7 +256,7 @@ def test_a_band_narrower_than_a_degree_is_refused():
 
 
 def test_an_empty_item_in_a_vary_list_is_refused():
-    from snrgain import sweep
+    from snrgain.tools import sweep
 
     for text in ("iso: name = a, , b", "iso: name = a, b,", "iso: name = , a"):
         with pytest.raises(sweep.VaryError, match="empty"):
@@ -325,7 +325,7 @@ def test_non_finite_options_are_refused(args, option):
 
 
 def test_locate_refuses_absurd_readings_and_elevations(tmp_path):
-    from snrgain import locate
+    from snrgain.tools import locate
 
     bad = locate.EXAMPLE.replace('level = "-118.8 dBm"', 'level = "+1000 dBm"', 1)
     res, p = _check(tmp_path, bad, command="locate", name="r.toml")
@@ -337,7 +337,7 @@ def test_locate_refuses_absurd_readings_and_elevations(tmp_path):
 
 
 def test_locate_writes_a_name_with_quotes_as_toml_and_replaces_it_next_time(tmp_path):
-    from snrgain import locate
+    from snrgain.tools import locate
 
     readings = tmp_path / "r.toml"
     readings.write_text(locate.EXAMPLE, encoding="utf-8")

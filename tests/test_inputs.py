@@ -459,7 +459,7 @@ def test_fuzz_options(tmp_path_factory, command, which, value):
     ranged=st.booleans(),
 )
 def test_fuzz_vary(table, key, values, ranged):
-    from snrgain import sweep
+    from snrgain.tools import sweep
 
     spec = " to ".join(values[:2]) + " by " + (values[2] if len(values) > 2 else "1") if ranged else ", ".join(values)
     try:

@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 
 import snrgain
-from snrgain import output
-from snrgain.labelled import DATAFRAME_COLUMNS, UNITS
+from snrgain.model.labelled import DATAFRAME_COLUMNS, UNITS
+from snrgain.outputs import output
 from tests.conftest import REPO, SCENARIOS
 
 # Two targets listened at different hours, so that snr_gain_db holds NaN where one is not listened for.

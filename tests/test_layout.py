@@ -8,8 +8,8 @@ from click.testing import CliRunner
 from shapely.geometry import Polygon
 
 from snrgain.cli.main import cli
-from snrgain.layout import WIRE_SEPARATION_M, Problem
 from snrgain.scenario import load, read_source
+from snrgain.tools.layout import WIRE_SEPARATION_M, Problem
 from tests.conftest import REPO
 
 DATA = REPO / "tests" / "data"

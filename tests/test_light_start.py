@@ -78,7 +78,7 @@ def test_physical_constants_are_scipys_and_written_once():
     import scipy.constants as sc
 
     from noisemodels import constants
-    from snrgain import ground
+    from snrgain.physics import ground
 
     assert constants.C_M_PER_S == sc.c
     assert constants.EPS0_F_PER_M == sc.epsilon_0

@@ -8,11 +8,11 @@ import importlib.util
 import pytest
 from click.testing import CliRunner
 
-from snrgain import pipeline
 from snrgain.cli.main import cli
 from snrgain.errors import TooLargeError
+from snrgain.model import pipeline
+from snrgain.model.spread import size
 from snrgain.scenario import load
-from snrgain.spread import size
 from tests.conftest import REPO
 
 

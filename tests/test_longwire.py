@@ -9,9 +9,11 @@ import numpy as np
 import pytest
 
 from noisemodels.sphere import upper_hemisphere
-from snrgain import lines, snr, wiredesign
 from snrgain.antennas import SpecError, from_spec
-from snrgain.ground import C_M_PER_S, GROUND_TYPES
+from snrgain.model import snr
+from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S, GROUND_TYPES
+from snrgain.tools import wiredesign
 from tests.conftest import REPO
 
 NEC_DIR = REPO / "tests" / "nec"
@@ -234,7 +236,7 @@ def test_closed_form_matches_numerical_integration_of_the_source():
     zf = ant.receiver_load_ohm(f) + ant.params.feed_ground
     zr = ant.far_load_ohm(f)
     k = 2 * np.pi * f / C_M_PER_S
-    from snrgain.ground import reflection_coefficients
+    from snrgain.physics.ground import reflection_coefficients
 
     x = np.linspace(0, L, 20001)
     for i in range(3):

@@ -5,10 +5,10 @@ import json
 import numpy as np
 import pytest
 
-from snrgain import lines, modal
 from snrgain.antennas import SpecError, from_spec
 from snrgain.fields import make_ground
-from snrgain.ground import C_M_PER_S
+from snrgain.physics import lines, modal
+from snrgain.physics.ground import C_M_PER_S
 from tests.conftest import REPO
 
 FITS = json.loads((REPO / "tests" / "nec" / "modal_fits.json").read_text())
@@ -170,8 +170,8 @@ LONG = json.loads((REPO / "tests" / "nec" / "long.json").read_text())
 def test_the_whole_spectrum_reproduces_nec2_along_a_long_wire(case):
     # Reference: nec2c 1.3 with the fbar() fix (tests/nec/make_long.py), a lossless horizontal wire twelve
     # wavelengths long fed at its middle; a forward and a reflected wave fitted to its current over 0.5-3
-    # wavelengths.  The same fit to the current snrgain.modal.gap_current computes for an infinite wire (the mode
-    # plus the rest of the spectrum) agrees: velocity factor within 0.2 %, attenuation within 3 % (measured 0.05 %
+    # wavelengths.  The same fit to the current snrgain.physics.modal.gap_current computes for an infinite wire (the
+    # mode plus the rest of the spectrum) agrees: velocity factor within 0.2 %, attenuation within 3 % (measured 0.05 %
     # and 0.6-1.2 %).  The mode alone decays faster (measured 2.5 % faster at 1.83 MHz 2 m over 5 mS/m, 16-19 %
     # over 1 mS/m and at 7.1 MHz): the rest of the spectrum, up to a fifth of the current, decays more slowly and
     # a single fitted wave averages the two.  So NEC's fitted attenuation is not the mode's; the line model uses

@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 
 import snrgain
-from snrgain import pipeline
-from snrgain import sweep as sw
+from snrgain.model import pipeline
 from snrgain.scenario import load, read_source
+from snrgain.tools import sweep as sw
 from tests.conftest import P372_DIR, REPO, SCENARIOS
 
 SITES = sorted((REPO / "tests" / "data" / "sites").glob("*.toml"))
@@ -136,18 +136,18 @@ def test_a_unit_passing_one_antenna_hears_exactly_that_antenna():
 # -- only the pipeline composes the stages ----------------------------------------------------------------------
 
 STAGE_PIECES = {
-    "antenna_gains": "snrgain/snr.py",
-    "sky_temperatures": "snrgain/snr.py",
-    "snr_gain_over_reference": "snrgain/snr.py",
-    "pickup": "snrgain/placed.py",
-    "received_power": "snrgain/placed.py",
-    "build_skies": "snrgain/noise.py",
-    "snr_spread": "snrgain/spread.py",
-    "station_plan": "snrgain/plan.py",
+    "antenna_gains": "snrgain/model/snr.py",
+    "sky_temperatures": "snrgain/model/snr.py",
+    "snr_gain_over_reference": "snrgain/model/snr.py",
+    "pickup": "snrgain/model/placed.py",
+    "received_power": "snrgain/model/placed.py",
+    "build_skies": "snrgain/sky/noise.py",
+    "snr_spread": "snrgain/model/spread.py",
+    "station_plan": "snrgain/decide/plan.py",
 }
 """The pieces the stages are made of (name -> home module): only the pipeline (and the spread's map over
-variants) puts them together; commands call the stages (snrgain.pipeline)."""
-COMPOSERS = {"snrgain/pipeline.py", "snrgain/spread.py", "snrgain/noiseday.py"}
+variants) puts them together; commands call the stages (snrgain.model.pipeline)."""
+COMPOSERS = {"snrgain/model/pipeline.py", "snrgain/model/spread.py", "snrgain/sky/noiseday.py"}
 """noiseday builds the sky alone for `snrgain noise` (no antennas): a stage on its own, not a composition."""
 
 
@@ -165,10 +165,10 @@ def test_only_the_pipeline_composes_the_stages():
 
 
 def test_the_spread_on_histograms_equals_the_exact_one(monkeypatch):
-    # Large spreads are ranked on 0.001 dB histograms shifted per target (snrgain.spread.Histogram); the same
+    # Large spreads are ranked on 0.001 dB histograms shifted per target (snrgain.model.spread.Histogram); the same
     # scenario ranked exactly (sorting every weighted sample) must agree to 0.01 dB (bins of 0.001 dB: merged
     # samples move the interpolation a little).
-    from snrgain import spread
+    from snrgain.model import spread
 
     path = REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml"
     exact = snrgain.evaluate(path)

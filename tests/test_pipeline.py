@@ -5,6 +5,7 @@ named beside them; the steps are checked one at a time, then together against ev
 """
 
 import ast
+import importlib
 import subprocess
 import sys
 import time
@@ -18,17 +19,17 @@ from click.testing import CliRunner
 import snrgain
 from noisemodels import p372
 from noisemodels.sphere import upper_hemisphere
-from snrgain import chain as chainmod
-from snrgain import noise as noisemod
-from snrgain import pipeline, snr
 from snrgain.antennas import FAMILIES, from_si, from_spec
 from snrgain.antennas.base import variant
 from snrgain.cli.main import cli
 from snrgain.files import OutputExistsError, write_atomic
-from snrgain.messages import notice_text
-from snrgain.pipeline import antenna_results, notices
+from snrgain.model import pipeline, snr
+from snrgain.model.pipeline import antenna_results, notices
+from snrgain.model.spread import snr_spread
+from snrgain.outputs.messages import notice_text
+from snrgain.physics import chain as chainmod
 from snrgain.scenario import load
-from snrgain.spread import snr_spread
+from snrgain.sky import noise as noisemod
 from snrgain.units import QuantityError, parse_attenuation_db_per_100m, parse_quantity
 from tests.conftest import MINIMAL, P372_DIR, REPO, SCENARIOS, needs_p372
 
@@ -58,7 +59,7 @@ def test_receiver_floor_resolves_to_a_noise_figure():
 def test_gains_and_temperatures_of_an_isotropic_antenna():
     grid = upper_hemisphere(16)
     iso = from_spec({"family": "isotropic"})
-    tgt = snrgain.targets.from_bearing("t", bearing_rad=0.5, elevation_lo_rad=0.1, elevation_hi_rad=0.3)
+    tgt = snrgain.physics.targets.from_bearing("t", bearing_rad=0.5, elevation_lo_rad=0.1, elevation_hi_rad=0.3)
     gains = snr.antenna_gains([iso], 1.83e6, grid, [tgt])
     # 0 dBi above the horizon, 0 below: its gain averaged over the whole sphere is 1/2 (RDF 3.01 dB).
     assert gains.toward[0, 0] == pytest.approx(1.0) and gains.mean[0] == pytest.approx(0.5)
@@ -267,7 +268,7 @@ def test_the_physics_needs_no_input_schema():
     # The input schema (pydantic sections, snrgain.fields, snrgain.scenario's models) stays at the edge: the
     # physics and the stages take SI values and resolved objects (the pipeline may load a file for the user).
     for name in PHYSICS:
-        path = REPO / "snrgain" / f"{name}.py"
+        path = Path(importlib.import_module(f"snrgain.{name}").__file__)  # where it lives in its group
         for module, names in _imports(path):
             assert module.split(".")[0] != "pydantic", f"{name}.py imports pydantic"
             assert module != "snrgain.fields", f"{name}.py imports the input fields"
@@ -277,7 +278,7 @@ def test_the_physics_needs_no_input_schema():
 
 
 def test_evaluate_is_a_few_named_steps():
-    tree = ast.parse((REPO / "snrgain" / "pipeline.py").read_text(encoding="utf-8"))
+    tree = ast.parse((REPO / "snrgain" / "model" / "pipeline.py").read_text(encoding="utf-8"))
     fn = next(n for n in tree.body if isinstance(n, ast.FunctionDef) and n.name == "evaluate")
     body_start = fn.body[1].lineno if isinstance(fn.body[0], ast.Expr) else fn.body[0].lineno  # after the docstring
     assert fn.end_lineno - body_start + 1 <= 40
@@ -285,7 +286,7 @@ def test_evaluate_is_a_few_named_steps():
 
 def test_importing_plots_leaves_the_backend_alone():
     code = (
-        "import matplotlib; matplotlib.use('svg'); import snrgain.plots, snrgain.report; "
+        "import matplotlib; matplotlib.use('svg'); import snrgain.outputs.plots, snrgain.outputs.report; "
         "import matplotlib.pyplot as plt; print(matplotlib.get_backend(), len(plt.get_fignums()))"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
@@ -295,7 +296,7 @@ def test_importing_plots_leaves_the_backend_alone():
 def test_plots_draw_into_given_axes():
     from matplotlib.figure import Figure
 
-    from snrgain import plots
+    from snrgain.outputs import plots
 
     r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
     fig = Figure()

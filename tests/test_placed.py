@@ -5,11 +5,11 @@ import pytest
 
 import snrgain
 from noisemodels import groundwave as gw
-from snrgain import placed
 from snrgain.antennas import from_spec
 from snrgain.errors import ScenarioError
-from snrgain.ground import C_M_PER_S
-from snrgain.noise import LocalSource
+from snrgain.model import placed
+from snrgain.physics.ground import C_M_PER_S
+from snrgain.sky.noise import LocalSource
 
 F = 1.83e6
 LAM = C_M_PER_S / F

@@ -5,10 +5,10 @@ import pytest
 
 import snrgain
 from noisemodels import p372, sky, sphere
-from snrgain import snr
 from snrgain.antennas import from_spec
-from snrgain.ground import C_M_PER_S
-from snrgain.targets import from_bearing
+from snrgain.model import snr
+from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.targets import from_bearing
 
 F = 1.83e6
 

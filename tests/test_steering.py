@@ -4,9 +4,9 @@ import numpy as np
 import pytest
 
 from noisemodels.sphere import upper_hemisphere
-from snrgain import snr
 from snrgain.antennas import SpecError, from_spec
-from snrgain.ground import C_M_PER_S
+from snrgain.model import snr
+from snrgain.physics.ground import C_M_PER_S
 
 F = 1.83e6
 LAM = C_M_PER_S / F
@@ -15,7 +15,7 @@ EL20 = np.radians(20.0)
 
 
 def _rdf(ant, bearing_deg=0.0) -> float:
-    """RDF [dB] toward the bearing at 20 deg: the gain there over the sphere-averaged gain (snrgain.snr)."""
+    """RDF [dB] toward the bearing at 20 deg: the gain there over the sphere-averaged gain (snrgain.model.snr)."""
     g = ant.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad)
     toward = ant.gain_linear(F, np.array([np.radians(bearing_deg)]), np.array([EL20]))[0]
     return snr.rdf_db(toward, snr.sphere_mean_gain(g, GRID))

@@ -6,9 +6,9 @@ import time
 import pytest
 from click.testing import CliRunner
 
-from snrgain import sweep as sw
 from snrgain.cli.main import cli
 from snrgain.scenario import read_source
+from snrgain.tools import sweep as sw
 from tests.conftest import SCENARIOS
 
 DEMO = SCENARIOS / "alder-hollow.toml"

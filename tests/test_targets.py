@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from noisemodels import hops
-from snrgain import targets
+from snrgain.physics import targets
 
 
 def test_geodesic_quarter_equator():

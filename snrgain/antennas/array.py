@@ -31,7 +31,7 @@ Steering.  ``steering = "given"``: each element gives ``delay`` (a time),
 
 Auto steering moves phases only (amplitudes as given, else equal) unless
 ``auto_amplitudes = true``.  The chosen weights are reported as phases, as
-delays in ns and as lengths of the phasing coax (snrgain.build).
+delays in ns and as lengths of the phasing coax (snrgain.decide.build).
 
 Mutual coupling is neglected here: the elements' currents are set by their
 own loads.  This holds for short receiving elements (verticals up to about
@@ -53,7 +53,7 @@ from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, item_label, register
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import SI_CONTEXT, Bearing, Elevation, GroundField, PlanPoint, quantity
-from snrgain.ground import C_M_PER_S
+from snrgain.physics.ground import C_M_PER_S
 from snrgain.units import parse_quantity
 
 WEIGHT_KEYS = ("delay", "delay_line", "phase", "amplitude")
@@ -293,8 +293,8 @@ class Array(Antenna):
         return out
 
     def under_sky(self, freq_hz: float, *, signal, noise, note: str) -> Array:
-        """A new array set for the sky's signal and noise forms (:func:`snrgain.pipeline.steer`); itself when it is
-        not steered under the sky."""
+        """A new array set for the sky's signal and noise forms (:func:`snrgain.model.pipeline.steer`); itself when
+        it is not steered under the sky."""
         if not self.uses_sky:
             return self
         out = self.copy()

@@ -148,7 +148,7 @@ class TransformerFeed:
 
     def mismatch(self, freq_hz: float) -> float:
         """Mismatch factor between the feed-point impedance and the transformer's load [-]."""
-        from snrgain.lines import mismatch_factor
+        from snrgain.physics.lines import mismatch_factor
 
         return mismatch_factor(self.feed_point_impedance(freq_hz), self.receiver_load_ohm(freq_hz))
 

@@ -41,7 +41,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from snrgain.ground import C_M_PER_S, ETA0_OHM
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 
 
 def _green(k, rho, dz):

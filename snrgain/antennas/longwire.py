@@ -7,7 +7,7 @@ no down-leads), ``two-wire`` (a terminated pair serving both directions).
 
 Model (DESIGN.md, "Long wire over ground")
 ------------------------------------------
-The wire and the earth form a lossy line (snrgain.lines): Z0, gamma.  A plane
+The wire and the earth form a lossy line (snrgain.physics.lines): Z0, gamma.  A plane
 wave of unit field from compass bearing phi at elevation Delta has, at the
 wire's height h, the field component along the wire (bearing b, unit vector
 u from the feed toward the far end)
@@ -16,7 +16,7 @@ u from the feed toward the far end)
     A_h = -sin(phi - b) [exp(+j k h s) + R_h exp(-j k h s)]          (horizontal polarization)
     A_v = -s cos(phi - b) [exp(+j k h s) - R_v exp(-j k h s)]        (vertical polarization)
 
-with s = sin(Delta) and R_v, R_h the Fresnel coefficients (snrgain.ground;
+with s = sin(Delta) and R_v, R_h the Fresnel coefficients (snrgain.physics.ground;
 R_v = +1 over a perfect conductor).  A vertical down-lead at position x
 adds the EMF cos(Delta) * integral_0^h [exp(+j k z s) + R_v exp(-j k z s)] dz
 times the same phase.  EMFs are counted around one loop: up the feed
@@ -64,7 +64,6 @@ from typing import Literal
 import numpy as np
 from pydantic import Field, model_validator
 
-from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.constants import FREQ_RANGE_HZ
@@ -78,7 +77,8 @@ from snrgain.fields import (
     make_ground,
     quantity,
 )
-from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients, rod_resistance_ohm
+from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients, rod_resistance_ohm
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
 
@@ -98,9 +98,9 @@ class WireParams(WireSize, AntennaParams):
     z0: float | None = Field(default=None, gt=0.0, le=2000.0)
     ground: GroundField | None = None
     line_model: Literal["exact", "closed-form"] = "exact"
-    """How the wire's line is solved: the full-wave modal equation (snrgain.modal; for the BOG with its insulation
-    as a coaxial layer, on the soil or buried) or the closed form (snrgain.lines; faster, a few per cent off over
-    poor ground at the higher bands; for the BOG snrgain's own shunt-path model)."""
+    """How the wire's line is solved: the full-wave modal equation (snrgain.physics.modal; for the BOG with its
+    insulation as a coaxial layer, on the soil or buried) or the closed form (snrgain.physics.lines; faster, a few per
+    cent off over poor ground at the higher bands; for the BOG snrgain's own shunt-path model)."""
 
     @model_validator(mode="after")
     def _wire(self):
@@ -516,10 +516,10 @@ class Bog(LongWire):
     Where it lies decides its line: on bare wet soil (``height = "on soil"``, the axis at the insulation's
     radius) 1.6 mm wire in 0.8 mm PVC over moist loam has velocity factor 0.36-0.40 and |Z0| 190-205 ohm at
     1.83-3.6 MHz; held 2 cm up by grass (the default), 0.62-0.65 and 340 ohm; 5 cm up, 0.70-0.72 and 380 ohm
-    (the exact mode, snrgain.modal; PVC taken as eps_r 3.5).  Builders who lay insulated wire on lawns report
+    (the exact mode, snrgain.physics.modal; PVC taken as eps_r 3.5).  Builders who lay insulated wire on lawns report
     0.65-0.77 (common practice), which this model reaches with the axis 3-10 cm up; the default of 2 cm sits at
     the low end of what grass holds a wire at.  Buried (``depth``, the axis below the surface) the same wire is
-    slower and lossier still: VF 0.21 and 66 dB/100 m at 5 cm, |Z0| about 105 ohm (snrgain.modal.wire_in_earth).
+    slower and lossier still: VF 0.21 and 66 dB/100 m at 5 cm, |Z0| about 105 ohm (snrgain.physics.modal.wire_in_earth).
     Measure your wire (``snrgain calibrate``) and give its constants when you can.
     """
 

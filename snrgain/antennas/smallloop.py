@@ -31,10 +31,10 @@ from typing import Literal
 import numpy as np
 from pydantic import Field, model_validator
 
-from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
-from snrgain.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
+from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
 
 
 class SmallLoopParams(WireSize, AntennaParams):

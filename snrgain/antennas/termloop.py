@@ -41,11 +41,11 @@ from typing import Literal
 
 import numpy as np
 
-from snrgain import lines
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
 from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, port_response, vertical_emf
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
-from snrgain.ground import C_M_PER_S
+from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S
 
 AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 """Resistors tried by termination = "auto" [ohm]."""

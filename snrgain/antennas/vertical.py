@@ -44,7 +44,7 @@ import numpy as np
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
 from snrgain.antennas.geometry import distinct
 from snrgain.fields import GroundField, make_ground, quantity
-from snrgain.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 
 MAX_HEIGHT_WAVELENGTHS = 0.625
 """The sinusoidal-current model is used up to a 5/8-wave vertical."""

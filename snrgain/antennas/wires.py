@@ -35,7 +35,7 @@ from pydantic import BeforeValidator, Field, model_validator
 
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity, wire_radius_m
-from snrgain.ground import C_M_PER_S
+from snrgain.physics.ground import C_M_PER_S
 
 MIN_LOSSY_HEIGHT_WAVELENGTHS = 0.05
 

@@ -55,7 +55,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
     permittivity are then fitted so that the wire model reproduces them, with uncertainties; the
     suggested termination and transformer follow from the measured Z0.  See --example for the file.
     """
-    from snrgain import calibrate as cal
+    from snrgain.tools import calibrate as cal
 
     if readings_preamble(
         example_text=cal.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to

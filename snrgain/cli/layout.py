@@ -46,9 +46,9 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
     Before you build: keep wires clear of power lines, call the utilities' locating service before
     driving ground rods, and mark wires near the ground: they trip people and animals.
     """
-    from snrgain import layout as lay
     from snrgain.cli.options import progress
     from snrgain.scenario import load, read_source
+    from snrgain.tools import layout as lay
 
     for target in (write_to, plot):
         check_output(target, overwrite=overwrite)
@@ -60,7 +60,7 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
     out = lay.as_dict(layouts)
     best = layouts[0]
     if plot is not None:
-        from snrgain import plots
+        from snrgain.outputs import plots
 
         plots.save(plots.layout_plan(lay.plan_data(problem, best)), plot, overwrite=overwrite)
         out["plot"] = plot

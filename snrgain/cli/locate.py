@@ -51,7 +51,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
     uncertainty (default 2 dB) is named.  With at = [east, north] (where the readings were taken) and
     distance in the file, the source is written to the scenario at its place.  See --example for the file.
     """
-    from snrgain import locate as loc
+    from snrgain.tools import locate as loc
 
     if readings_preamble(
         example_text=loc.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
@@ -74,7 +74,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
         raise ValueError(f"{readings}: {exc}") from None
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
     if plot is not None:
-        from snrgain import plots
+        from snrgain.outputs import plots
 
         plots.save(plots.located_sources(res), plot, overwrite=overwrite)
         out["plot"] = plot

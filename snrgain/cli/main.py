@@ -15,6 +15,8 @@ from snrgain.cli.rank import rank
 from snrgain.cli.report import figures, report
 from snrgain.cli.sweep import sweep
 from snrgain.cli.wire import wire
+from snrgain.errors import RECEIVED as _received  # the stop signals received (the first decides the exit code)
+from snrgain.errors import Interrupted
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -30,22 +32,6 @@ def cli():
     need phase_sense = 'lag' (delayed by the phase, as by a longer cable) or
     'lead'.  The front element lagging beams forward.
     """
-
-
-class Interrupted(BaseException):
-    """Ctrl-C or SIGTERM: raised in the main thread by the handlers :func:`main` installs, caught there only.
-
-    A BaseException that is not a KeyboardInterrupt, so neither library code (``except Exception``) nor click
-    (which turns a KeyboardInterrupt into "Aborted!" and exit 1) swallows it on the way out; ``finally`` blocks and
-    the file writers' clean-up still run."""
-
-    def __init__(self, signum: int):
-        super().__init__(signum)
-        self.signum = signum
-
-
-_received: list[int] = []
-"""The signals received (the first decides the exit code)."""
 
 
 def _interrupt_on_signals() -> None:

@@ -62,7 +62,7 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
 
     from noisemodels.p372_maps import ENV_VAR
     from snrgain.constants import check_frequency_hz
-    from snrgain.noiseday import noise_over_day
+    from snrgain.sky.noiseday import noise_over_day
     from snrgain.units import parse_quantity
 
     data_dir = os.environ.get(ENV_VAR) or p372_dir

@@ -220,7 +220,7 @@ def emit_json(data) -> None:
 
 
 def json_text(data) -> str:
-    from snrgain.results import jsonable
+    from snrgain.model.results import jsonable
 
     return json.dumps(jsonable(data), sort_keys=True, indent=2, allow_nan=False) + "\n"
 

@@ -55,9 +55,9 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir):
     the chance of beating the reference by 3 dB.  The station plan then names
     the set of antennas to build and which serves which target at which hours.
     """
-    from snrgain import output as out
     from snrgain.cli.options import progress
-    from snrgain.pipeline import evaluate
+    from snrgain.model.pipeline import evaluate
+    from snrgain.outputs import output as out
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"rank: evaluating {scenario}"):

@@ -38,8 +38,8 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir):
 
     The file has no scripts and loads nothing from the network; it prints cleanly.
     """
-    from snrgain import report as rep
-    from snrgain.pipeline import evaluate
+    from snrgain.model.pipeline import evaluate
+    from snrgain.outputs import report as rep
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"report: evaluating {scenario}"):
@@ -74,8 +74,8 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir):
 @handle_errors
 def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
-    from snrgain import plots
-    from snrgain.pipeline import evaluate
+    from snrgain.model.pipeline import evaluate
+    from snrgain.outputs import plots
 
     d = Path(out_dir)
     if not d.is_dir():

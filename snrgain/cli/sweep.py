@@ -62,9 +62,9 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, nside, p372
     Only a candidate's own keys varying: the sky and the reference are computed once, so thousands of designs
     take seconds.  Varying the site, band, time or reference, or asking --spread, runs each design in full.
     """
-    from snrgain import sweep as sw
     from snrgain.cli.options import progress
     from snrgain.scenario import read_source
+    from snrgain.tools import sweep as sw
 
     check_output(output, overwrite=overwrite)
     sw.output_format(output)

@@ -90,7 +90,7 @@ def wire(
     """
     import numpy as np
 
-    from snrgain import wiredesign
+    from snrgain.tools import wiredesign
     from snrgain.units import parse_quantity
 
     f = parse_quantity(frequency, "frequency")

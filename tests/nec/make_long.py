@@ -16,7 +16,7 @@ patched engine instead and writes tests/nec/long.json, with every deck under cas
   middle segment: NEC's current from 0.1 to 3 wavelengths out (sampled), and the propagation constant of a
   forward and a reflected wave fitted to it over 0.5-3 wavelengths (make_modal_fits.fit_gamma).  The open ends
   lie six wavelengths out, so what comes back from them is small.  tests/test_modal.py sets these beside the
-  current snrgain.modal.gap_current computes for an infinite wire (the mode and the rest of the spectrum).
+  current snrgain.physics.modal.gap_current computes for an infinite wire (the mode and the rest of the spectrum).
   NEC's wires are lossless, so those tests solve without the copper's internal impedance.
 """
 

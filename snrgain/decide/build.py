@@ -1,0 +1,114 @@
+"""The build sheet: the values a builder cuts, winds and solders, per candidate.
+
+Resistors are rounded to the nearest value of the E12 series of preferred
+numbers (IEC 60063), the series most shops stock; the table gives both the
+computed and the standard value.  Phasing delays are given in nanoseconds and
+as the length of coaxial cable that delays that much, length = delay x
+velocity factor x c, with the velocity factor from snrgain's cable table for
+the cable the antenna's feed line uses, else :data:`DEFAULT_PHASING_CABLE`.
+Transformer turns ratios are the antenna side over the coax side.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from snrgain.physics.chain import cable_by_name
+from snrgain.physics.ground import C_M_PER_S
+from snrgain.tools import wiredesign
+from snrgain.units import FT_PER_M
+
+E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
+"""The E12 series of preferred numbers (IEC 60063)."""
+DEFAULT_PHASING_CABLE = "RG-6"
+"""Cable assumed for phasing lines when the antenna's chain names none (75 ohm, foam: common for receiving
+arrays, common practice)."""
+
+
+def nearest_standard_ohm(ohm: float, series=E12) -> float:
+    """The value of a preferred-number series nearest to ``ohm`` (on a logarithmic scale) [ohm].
+
+    >>> nearest_standard_ohm(528.0), nearest_standard_ohm(183.0), nearest_standard_ohm(0.0)
+    (560.0, 180.0, 0.0)
+    """
+    if not ohm > 0:
+        return 0.0
+    decade = 10.0 ** np.floor(np.log10(ohm))
+    candidates = [v * decade * f for v in series for f in (0.1, 1.0, 10.0)]
+    return float(round(min(candidates, key=lambda v: abs(np.log(v / ohm))), 6))
+
+
+def coax_length_m(delay_s: float, velocity_factor: float) -> float:
+    """Length of coax [m] that delays a signal by ``delay_s`` [s]: delay x velocity factor x c."""
+    return float(delay_s * velocity_factor * C_M_PER_S)
+
+
+def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
+    """What to build for ``antenna`` at ``freq_hz`` (SI units in the keys; family-specific entries)."""
+    out: dict = {"family": antenna.family}
+    d = antenna.describe()
+    for key in (
+        "length_m",
+        "height_m",
+        "bearing_deg",
+        "width_m",
+        "loop_height_m",
+        "shape",
+        "spacing_m",
+        "depth_m",
+        "ground_loss_ohm",
+        "top_loading_m",
+        "turns",
+        "port",
+        "position_m",
+    ):
+        if key in d:
+            out[key] = d[key]
+    if "length_m" in out:
+        out["length_ft"] = out["length_m"] * FT_PER_M
+    if hasattr(antenna, "termination_ohm"):
+        term = antenna.termination_ohm(freq_hz)
+        if term is not None:
+            out["termination_ohm"] = float(term)
+            out["termination_standard_ohm"] = nearest_standard_ohm(term)
+            if hasattr(antenna, "far_rod_ohm"):
+                out["far_ground_ohm"] = float(antenna.far_rod_ohm)
+    if hasattr(antenna, "feed_rod_ohm"):
+        out["feed_ground_ohm"] = float(antenna.feed_rod_ohm)
+    if hasattr(antenna, "line") and hasattr(antenna, "length_m"):
+        ln = antenna.line(freq_hz)
+        out["velocity_factor"] = ln.velocity_factor
+        out["z0_magnitude_ohm"] = float(abs(ln.z0))
+        # The wire's loss end to end: above 20 dB what the far end reflects returns 40 dB down, so the
+        # termination hardly matters (the build sheet says so).
+        out["end_to_end_loss_db"] = float(ln.attenuation_db_per_100m * antenna.length_m / 100.0)
+    if hasattr(antenna, "turns_ratio") and hasattr(antenna, "feed_point_impedance"):
+        tr = wiredesign.transformer(antenna, freq_hz)
+        z = tr.feed_point_impedance_ohm
+        out.update(
+            feed_point_impedance_ohm=[float(z.real), float(z.imag)],
+            coax_ohm=tr.coax_ohm,
+            turns_ratio=tr.chosen_turns_ratio,
+            mismatch_loss_db=tr.chosen_mismatch_loss_db,
+            practical_turns_ratio=tr.practical_turns_ratio,
+            practical_mismatch_loss_db=tr.practical_mismatch_loss_db,
+        )
+    for key in ("feed", "line_impedance_ohm", "feed_impedances_ohm", "current_magnitudes", "current_lags_deg"):
+        if key in d:
+            out[key] = d[key]
+    if antenna.composite:
+        out.update(antennas=d.get("antennas"), setting=d.get("setting"))
+    elif hasattr(antenna, "effective_delays_s"):
+        name = cable or DEFAULT_PHASING_CABLE
+        vf = cable_by_name(name).velocity_factor
+        delays = antenna.effective_delays_s(freq_hz)
+        out.update(
+            positions_m=d.get("positions_m"),
+            amplitudes=d.get("amplitudes"),
+            delays_ns=[float(t * 1e9) for t in delays],
+            phasing_cable=name,
+            phasing_cable_velocity_factor=vf,
+            phasing_lengths_m=[coax_length_m(t, vf) for t in delays],
+        )
+        out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
+    return out

@@ -1,0 +1,136 @@
+"""The lot: where each antenna lies on the plan, and what it runs into (shapely geometry).
+
+Footprints on the site plan [m east, m north]:
+
+- long wires (beverage, unterminated, bog, two-wire): the line from the feed
+  point (``position``) along the bearing for the wire's length;
+- arrays: their elements' positions; loops and verticals: their position;
+- antennas without a position, and combinations (their parts are checked),
+  have none.
+
+Checks, each a :class:`snrgain.model.results.Notice` (a warning, not an error: a
+builder may know better): an antenna leaving the lot, one entering a
+keep-out area (the house, a road, the transmitting vertical's radial
+field), two wires crossing, a receiving antenna within ``tx_clearance`` of
+the transmitting vertical (the reference, when it is a vertical, at its
+position or else at the plan's origin when the site has a lot), and a
+placed noise source inside a keep-out area (a house is where sources often
+are: it is said, not refused).  A lot or keep-out outline that crosses
+itself is an input error.
+
+Cautions of the trade: keep wires well clear of power lines (never run a
+wire where it could fall onto one, or one onto it); call the utilities'
+locating service before driving ground rods; a wire on or near the ground is
+a trip hazard to people and animals: mark it.  Follow local codes and
+licensed practice for anything that connects to mains or lightning
+protection.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from snrgain.model.notices import Notice
+from snrgain.physics.ground import C_M_PER_S
+
+OFF_LOT_TOLERANCE_M = 0.1
+"""Beyond the lot by less than this [m] is on it (positions written to 0.1 m)."""
+DEFAULT_TX_CLEARANCE_WAVELENGTHS = 0.5
+"""Default distance to keep receiving antennas from a resonant transmitting vertical: half a wavelength (common
+practice; closer, detune the vertical while receiving)."""
+
+
+def polygon(points, what: str):
+    """A valid shapely polygon from plan points, or ValueError naming ``what`` and why it is not one."""
+    from shapely.geometry import Polygon
+    from shapely.validation import explain_validity
+
+    poly = Polygon([(float(x), float(y)) for x, y in points])
+    if not poly.is_valid:
+        raise ValueError(
+            f"{what}: the outline is not a simple polygon ({explain_validity(poly).lower()}); "
+            "list the corners in order around the edge, without crossing"
+        )
+    if poly.area <= 0:
+        raise ValueError(f"{what}: the outline encloses no area")
+    return poly
+
+
+def footprint(antenna):
+    """The antenna's shape on the plan (shapely), or None where it has no position."""
+    from shapely.geometry import LineString, MultiPoint, Point
+
+    if antenna.composite:  # made of other antennas of the scenario, drawn where they stand
+        return None
+    pos = getattr(antenna, "positions", None)
+    if pos is not None and len(pos) > 1:
+        return MultiPoint([tuple(p) for p in np.asarray(pos, dtype=float)])
+    p = antenna.params.position
+    if p is None:
+        return None if pos is None or not len(pos) else Point(*np.asarray(pos, dtype=float)[0])
+    if antenna.long_wire:
+        b = antenna.bearing_rad
+        end = (p[0] + antenna.length_m * np.sin(b), p[1] + antenna.length_m * np.cos(b))
+        return LineString([tuple(p), end])
+    return Point(*p)
+
+
+def tx_clearance_m(site, freq_hz: float) -> float:
+    """The distance to keep from the transmitting vertical [m]: as given, else half a wavelength."""
+    given = getattr(site, "tx_clearance_m", None)
+    return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * C_M_PER_S / freq_hz
+
+
+def site_notices(sc) -> list[Notice]:
+    """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical."""
+    from shapely.geometry import Point
+
+    out = []
+    site = sc.site
+    lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
+    keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
+    shapes = [(a, footprint(a)) for a in sc.candidates]
+    for ant, shape in shapes:
+        if shape is None:
+            continue
+        if lot is not None and not lot.covers(shape):
+            outside = shape.difference(lot)
+            far = max((lot.exterior.distance(Point(c)) for c in _coords(outside)), default=0.0)
+            if far > OFF_LOT_TOLERANCE_M:
+                out.append(Notice("off-lot", ant.name, {"outside_m": float(far)}))
+        for name, area in keep:
+            if shape.intersects(area):
+                out.append(Notice("in-keep-out", ant.name, {"area": name}))
+    wires = [(a, s) for a, s in shapes if s is not None and s.geom_type == "LineString"]
+    for i, (a, s) in enumerate(wires):
+        for b, t in wires[i + 1 :]:
+            if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
+                out.append(Notice("wires-cross", a.name, {"other": b.name}))
+    ref = sc.reference
+    # Where the TX vertical stands: its position, or the plan's origin when the site has a lot; with neither there
+    # is no plan to place it on (element positions of an array may then be relative), so nothing is said.
+    if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
+        tx = Point(*(ref.params.position or (0.0, 0.0)))
+        clear = tx_clearance_m(site, sc.freq_hz)
+        for ant, shape in shapes:
+            if shape is not None:
+                d = float(shape.distance(tx))
+                if d < clear:
+                    out.append(Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear}))
+    for src in sc.noise.local:
+        if src.position_m is not None:
+            for name, area in keep:
+                if area.covers(Point(*src.position_m)):
+                    out.append(Notice("source-in-keep-out", None, {"source": src.name, "area": name}))
+    return out
+
+
+def _coords(geom):
+    """Every vertex of a shapely geometry (collections included)."""
+    if geom.is_empty:
+        return []
+    if hasattr(geom, "geoms"):
+        return [c for g in geom.geoms for c in _coords(g)]
+    if geom.geom_type == "Polygon":
+        return list(geom.exterior.coords)
+    return list(geom.coords)

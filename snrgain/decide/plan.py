@@ -1,0 +1,166 @@
+"""The station plan: which antennas to build, and which serves which target.
+
+Every decision of snrgain uses one statistic per antenna and target: the
+median SNR gain over the reference across the target's months and hours and
+the spreads (snrgain.model.spread), the number the per-target ranking shows.  The
+plan uses it too, so the antenna it names for a target is that target's best
+unless the plan says why not.
+
+A station with a set S of antennas (the reference always among them) listens
+to each target on the member of S with the highest median SNR gain toward
+it.  The set's worth is the weighted mean, over targets, of that member's
+SNR gain as a power ratio, given in dB:
+
+    V(S) = 10 log10( sum_t w_t 10^(max_{a in S} G[a, t] / 10) ),
+
+with the reference's G = 0, so V({reference}) = 0 and V never falls when an
+antenna is added.  Targets are combined as power ratios, never by adding or
+averaging dB.  The plan is the S of highest V with at most ``max_antennas``
+antennas beside the reference: found by trying every such set when there
+are at most :data:`EXACT_LIMIT` candidates, else greedily (add the antenna
+that raises V most, repeatedly).  Its members are listed in the order that
+greedy adding takes them, each with the dB it adds (they add up to V(S));
+members adding less than :data:`MIN_ADDED_DB` are left out.  Where a
+target's best antenna is not in the plan, :attr:`Plan.not_best` says which
+it is, who serves the target instead, and why (the antenna limit, or too
+little added).  Yardsticks that cannot be built (the isotropic antenna)
+take no part.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from itertools import combinations
+
+import numpy as np
+
+EXACT_LIMIT = 12
+"""Up to this many candidates every set is tried; beyond, the set is chosen greedily."""
+MIN_ADDED_DB = 0.1
+"""An antenna that adds less than this to the plan's worth is not worth building [dB]."""
+
+
+@dataclass(frozen=True)
+class Service:
+    """One antenna serving a target over the target's months and hours."""
+
+    antenna: str
+    months: list[int]
+    utc_hours: list[float]
+    snr_gain_db: float
+    """Median SNR gain over the reference toward the target [dB] (the ranking's statistic)."""
+
+
+@dataclass(frozen=True)
+class Plan:
+    """The antennas to build (in order), the dB each adds, the plan's worth, and who serves which target."""
+
+    antennas: list[str]
+    added_db: list[float]
+    gain_db: float
+    """V(S): the weighted mean over targets of the serving member's SNR gain as a power ratio, in dB."""
+    by_target: dict[int, list[Service]] = field(default_factory=dict)
+    """Target index -> the member that serves it (one Service)."""
+    method: str = "exact"
+    max_antennas: int | None = None
+    not_best: dict[int, dict] = field(default_factory=dict)
+    """Target index -> {best, best_db, served_by, served_db, reason} where the target's best antenna is not the
+    one the plan serves it with; reason "max_antennas" (the plan holds no more) or "adds_little" (it adds less
+    than MIN_ADDED_DB to the plan's worth)."""
+
+
+def worth(gains: np.ndarray, weights: np.ndarray, members) -> float:
+    """V(S) [dB] for the antennas ``members`` (indices; the reference 0 always included).
+
+    ``gains`` (antennas, targets): the median SNR gain over the reference [dB]; ``weights`` (targets,) adding to 1.
+
+    >>> worth(np.array([[0.0, 0.0], [10.0, 0.0]]), np.array([0.5, 0.5]), [1])  # (10 + 1) / 2
+    7.403626894942439
+    """
+    best = np.max(np.asarray(gains)[[0, *members]], axis=0)
+    return float(10.0 * np.log10(np.dot(weights, 10.0 ** (best / 10.0))))
+
+
+def station_plan(
+    names,
+    gains,
+    weights,
+    *,
+    max_antennas: int | None = None,
+    buildable=None,
+    target_times=None,
+) -> Plan:
+    """The station plan (module docstring); ``names[0]`` is the reference.
+
+    ``gains`` (antennas, targets): the median SNR gain over the reference [dB], the reference's row 0;
+    ``buildable[i]`` False keeps antenna i out of the plan (a yardstick); ``target_times[t]``: (months, utc_hours)
+    each target is listened at, for the services.
+
+    >>> g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
+    >>> p = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]))
+    >>> p.antennas, [round(x, 2) for x in p.added_db], round(p.gain_db, 2)
+    (['a', 'b'], [3.96, 1.15], 5.11)
+    >>> p1 = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]), max_antennas=1)
+    >>> p1.antennas, p1.not_best[1]["best"], p1.not_best[1]["reason"]
+    (['a'], 'b', 'max_antennas')
+    """
+    gains = np.nan_to_num(np.asarray(gains, dtype=float), nan=0.0)
+    gains[0] = 0.0
+    candidates = [i for i in range(1, len(names)) if buildable is None or buildable[i]]
+    n = len(candidates)
+    limit = n if max_antennas is None else min(max_antennas, n)
+    if n <= EXACT_LIMIT:
+        method = "exact"
+        best, best_value = (), 0.0
+        for k in range(1, limit + 1):
+            for members in combinations(candidates, k):
+                v = worth(gains, weights, members)
+                if v > best_value + 1e-12:
+                    best, best_value = members, v
+        chosen = list(best)
+    else:
+        method = "greedy"
+        chosen = []
+        while len(chosen) < limit:
+            base = worth(gains, weights, chosen)
+            step, pick = max((worth(gains, weights, [*chosen, c]) - base, c) for c in candidates if c not in chosen)
+            if step <= 0:
+                break
+            chosen.append(pick)
+    order, added, value, dropped = [], [], 0.0, []
+    remaining = list(chosen)
+    while remaining:  # the members as greedy adding takes them; the tail that adds (almost) nothing is left out
+        step, pick = max((worth(gains, weights, [*order, c]) - value, c) for c in remaining)
+        if step < MIN_ADDED_DB:
+            dropped = list(remaining)
+            break
+        order.append(pick)
+        added.append(step)
+        value += step
+        remaining.remove(pick)
+    members = [0, *order]
+    by_target, not_best = {}, {}
+    for t in range(gains.shape[1]):
+        served = members[int(np.argmax(gains[members, t]))]  # first maximum: the earlier member wins a tie
+        months, hours = ([], []) if target_times is None else target_times[t]
+        by_target[t] = [Service(names[served], list(months), [float(h) for h in hours], float(gains[served, t]))]
+        top = max(candidates, key=lambda a: gains[a, t], default=None)
+        if top is not None and gains[top, t] > gains[served, t] + 1e-9:
+            not_best[t] = {
+                "best": names[top],
+                "best_db": float(gains[top, t]),
+                "served_by": names[served],
+                "served_db": float(gains[served, t]),
+                "reason": "adds_little"
+                if top in dropped or top not in chosen and len(chosen) < limit
+                else "max_antennas",
+            }
+    return Plan(
+        [names[i] for i in order],
+        [float(a) for a in added],
+        float(value),
+        by_target,
+        method,
+        max_antennas,
+        not_best,
+    )

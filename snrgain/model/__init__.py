@@ -1,0 +1,1 @@
+"""snrgain.model: the pipeline's stages and what they produce: gains, temperatures, near sources, spreads, results."""

@@ -1,0 +1,28 @@
+"""What the library tells the user, as data: :class:`Notice` (a code, the antenna it concerns, the numbers).
+
+A module of its own so that the results (:mod:`snrgain.model.results`) and the sentences written from notices at the
+edge (:mod:`snrgain.outputs.messages`) both import it and neither imports the other.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+
+@dataclass(frozen=True)
+class Notice:
+    """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
+
+    Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
+    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg,
+    lobe_deg, off_deg: an array whose main lobe points more than 90 deg away from its bearing),
+    ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|).
+    """
+
+    code: str
+    antenna: str | None = None
+    values: dict[str, Any] = field(default_factory=dict)
+
+
+__all__ = ["Notice"]

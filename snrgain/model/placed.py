@@ -1,0 +1,206 @@
+"""Placed noise sources: each antenna hears a source on the lot from where it stands.
+
+A source given by its place (``[[noise.local]] position`` or latitude and
+longitude) radiates as a small dipole near the ground; its field at any
+point follows :func:`noisemodels.groundwave.dipole_field` (near field,
+Norton's surface-wave attenuation, far field).  The sky carries it as a
+compact component seen from the reference antenna (its level read there,
+or its Fa at ``measured_at``); every other antenna's share is scaled by how
+much more or less it picks up of the same source:
+
+    T_A = T_ref x P_A / P_ref,
+
+P the power an antenna delivers from the source's field, in units where a
+plane wave of unit field delivers the antenna's realized gain:
+
+- a compact antenna (vertical, loop, array, pattern table...) at its
+  position: P = G_v(d) |E_v|^2 + G_h(d) |E_h|^2, d the direction from the
+  antenna toward the source at the source's arrival elevation, E the field
+  at the antenna (an array at the centroid of its elements);
+- a long wire (beverage, unterminated, bog): the field is applied point by
+  point along the wire, each point seeing a wave arriving from the source
+  with the local amplitude and phase E(r(x)), and the line model sums the
+  distributed EMFs (and the down-leads' at both ends) through its transfer
+  functions, numerically (:func:`wire_feed_current`).  So a wire running past
+  a source is modelled, not approximated by a direction.
+
+Antennas without a position stand at the reference's.  The distance used
+for the field is the slant distance sqrt(r^2 + height^2), so an antenna
+right beside a source stays finite.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from noisemodels.groundwave import dipole_field
+from snrgain.physics.ground import C_M_PER_S
+
+
+def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
+    """(E_v, E_h) of a placed source at plan points (N, 2) [m], relative to the dipole's far field at 1 m."""
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    r = np.sqrt((p[:, 0] - src.position_m[0]) ** 2 + (p[:, 1] - src.position_m[1]) ** 2 + src.height_m**2)
+    eps = None if ground is None else ground.permittivity
+    sig = None if ground is None else ground.conductivity_s_per_m
+    share = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}[src.polarisation]
+    ev = np.sqrt(share[0]) * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig) if share[0] else 0
+    eh = (
+        np.sqrt(share[1])
+        * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig, polarisation="horizontal")
+        if share[1]
+        else 0
+    )
+    return np.broadcast_to(ev, r.shape).astype(complex), np.broadcast_to(eh, r.shape).astype(complex)
+
+
+def bearing_to(src, points_m) -> np.ndarray:
+    """Compass bearing [rad] from each plan point toward the source."""
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    return np.mod(np.arctan2(src.position_m[0] - p[:, 0], src.position_m[1] - p[:, 1]), 2 * np.pi)
+
+
+def antenna_point(antenna, reference_m) -> np.ndarray:
+    """Where an antenna hears from: its position (an array's element centroid), else the reference's [m]."""
+    pos = getattr(antenna, "positions", None)
+    if pos is not None and len(pos):
+        return np.asarray(pos, dtype=float).mean(axis=0)
+    p = antenna.params.position
+    return np.asarray(reference_m if p is None else p, dtype=float)
+
+
+def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarray:
+    """Sample distances along a wire [m]: finer than a 40th of a wavelength and a quarter of the closest
+    approach to the source, at least 400 points, at most 40,000."""
+    lam = C_M_PER_S / freq_hz
+    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
+    n = int(np.clip(np.ceil(length_m / step), 400, 40_000)) + 1
+    return np.linspace(0.0, length_m, n)
+
+
+def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) -> complex:
+    """The feed current [A] of a long wire driven by a placed source's field (module docstring), for unit field
+    at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (trapezoid rule)."""
+    from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
+
+    b = wire.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    feed = np.asarray(feed_m, dtype=float)
+    L = wire.length_m
+    if x_m is None:
+        to_src = np.asarray(src.position_m) - feed
+        along = float(np.clip(to_src @ u, 0.0, L))
+        closest = float(np.hypot(*(to_src - along * u)))
+        x_m = wire_samples(L, freq_hz, float(np.hypot(closest, src.height_m)))
+    x = np.asarray(x_m, dtype=float)
+    pts = feed[None, :] + x[:, None] * u[None, :]
+    ev, eh = source_field(src, pts, freq_hz, ground)
+    az = bearing_to(src, pts)
+    w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=b, ground=wire.ground)
+    f_v, f_h = field_along_wire(w, wire.wire_height_m())
+    emf = -w.cos_dphi * f_v[w.inv] * ev - w.sin_dphi * f_h[w.inv] * eh  # per metre along the wire
+    ln = wire.line(freq_hz)
+    g, z0 = ln.gamma, ln.z0
+    z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
+    z_far = wire.far_load_ohm(freq_hz)
+    if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
+        transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
+    else:
+        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
+        transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
+    current = np.trapezoid(emf * transfer, x)
+    if wire.has_leads:
+        lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv]  # per unit field, at the source's elevation
+        current += lead[0] * ev[0] * transfer[0]  # up the feed lead
+        if z_far is not None:
+            current -= lead[-1] * ev[-1] * transfer[-1]  # down the far lead
+    return complex(current)
+
+
+def hears(antenna, src, freq_hz: float, reference_m) -> bool:
+    """Whether an antenna takes any power from a placed source (received_power > 0), decided from its partial
+    gains toward the source and the polarisations the source radiates, without the source's field (whose
+    magnitude is never zero off the source): light enough for ``snrgain check``."""
+    if antenna.integrates_near_sources or antenna.composite:
+        return True
+    at = antenna_point(antenna, reference_m)
+    gv, gh = antenna.partial_gains(freq_hz, bearing_to(src, at[None, :]), np.array([src.elevation_rad]))
+    share_v, share_h = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}[src.polarisation]
+    return bool(share_v * gv[0] + share_h * gh[0] > 0)
+
+
+def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:
+    """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain;
+    ``at_m`` puts the antenna (its feed point) there instead of at its position."""
+    a_v, a_h = received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m)
+    return float(abs(a_v) ** 2 + abs(a_h) ** 2)
+
+
+def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> tuple[complex, complex]:
+    """(vertical, horizontal) complex amplitudes an antenna delivers from a placed source, |a_v|^2 + |a_h|^2 its
+    :func:`received_power`.  A long wire sums the field along its length (one amplitude, both polarisations in its
+    current); a compact antenna takes its response toward the source times the field where it stands; a
+    composite (a phasing unit) adds its parts' amplitudes through its weights, each part hearing the source where
+    it stands, so a unit that passes one antenna alone hears exactly what that antenna hears."""
+    from snrgain.antennas.base import Antenna
+    from snrgain.antennas.longwire import port_response
+
+    if antenna.composite:
+        f = float(freq_hz)
+        w = antenna.weights_at(f)
+        norm = float(np.real(w.conj() @ antenna.norm_matrix(f) @ w))
+        parts = [received_amplitudes(p, src, f, reference_m, ground) for p in antenna.elements]
+        return tuple(complex(sum(wi * a[i] for wi, a in zip(w, parts)) / np.sqrt(norm)) for i in (0, 1))
+    if antenna.integrates_near_sources:
+        feed = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
+        i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
+        load = antenna.receiver_load_ohm(freq_hz)
+        e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
+        return complex(e[0]), 0j
+    at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
+    ev, eh = source_field(src, at[None, :], freq_hz, ground)
+    az = bearing_to(src, at[None, :])
+    el = np.array([src.elevation_rad])
+    if type(antenna).complex_response is Antenna.complex_response:  # no phase: the gains alone
+        gv, gh = antenna.partial_gains(freq_hz, az, el)
+        return complex(np.sqrt(gv[0]) * abs(ev[0])), complex(np.sqrt(gh[0]) * abs(eh[0]))
+    rv, rh = antenna.complex_response(freq_hz, az, el)
+    return complex(rv[0] * ev[0]), complex(rh[0] * eh[0])
+
+
+def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """(shares, powers) of each placed source in each antenna: its share relative to the first antenna (the
+    reference), P_A / P_ref (module docstring), with a source's Fa measured elsewhere (``measured_at``) carried to
+    the reference by the field ratio; and the powers P themselves.  Each is name -> array (antennas,).  ``ground``:
+    the soil under the source's field (default: the site's); ``powers``: name -> array with NaN where not known,
+    the powers already worked out (an antenna that has not moved).  An input of the integrator
+    (:func:`snrgain.model.snr.sky_temperatures`); empty when no source is placed."""
+    placed = [s for s in sc.noise.local if s.position_m is not None]
+    if not placed:
+        return {}, {}
+    ground = sc.site.ground if ground is None else ground
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    shares, out_powers = {}, {}
+    for src in placed:
+        have = None if powers is None else powers.get(src.name)
+        p = np.array(
+            [
+                have[k]
+                if have is not None and np.isfinite(have[k])
+                else received_power(a, src, sc.freq_hz, ref_m, ground)
+                for k, a in enumerate(antennas)
+            ]
+        )
+        if not p[0] > 0:
+            raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
+        scale = p / p[0]
+        if src.measured_at_m is not None:  # Fa given where it was measured, not at the reference
+            e_ref = source_field(src, np.array([ref_m]), sc.freq_hz, ground)
+            e_at = source_field(src, np.array([src.measured_at_m]), sc.freq_hz, ground)
+            scale = (
+                scale
+                * (np.abs(e_ref[0][0]) ** 2 + np.abs(e_ref[1][0]) ** 2)
+                / (np.abs(e_at[0][0]) ** 2 + np.abs(e_at[1][0]) ** 2)
+            )
+        shares[src.name], out_powers[src.name] = scale, p
+    return shares, out_powers

@@ -1,0 +1,369 @@
+"""What :func:`snrgain.evaluate` returns: numbers only, with units in the field names.
+
+:class:`Results` holds the resolved site, band and times, the noise sky
+(:class:`snrgain.sky.noise.SkySeries`), one :class:`AntennaResult` for the
+reference and for each candidate (ranked, best first), the pattern cuts the
+figures draw, and :class:`Notice` records (a code and its values; the
+sentences are written at the edge, :mod:`snrgain.outputs.messages`; the class lives in :mod:`snrgain.model.notices`).
+:meth:`Results.to_dict` is the JSON output.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from snrgain.model.notices import Notice  # re-exported: the documented path snrgain.model.results.Notice
+from snrgain.sky.noise import SkySeries
+
+SCHEMA_VERSION = "3"
+
+
+@dataclass(frozen=True)
+class AntennaResult:
+    """Numbers for one antenna.  Array axes: [target, month, hour] or [month, hour].
+
+    Attributes
+    ----------
+    name, family, parameters : what the antenna is (parameters with SI units in keys)
+    gain_dbi : weighted total gain toward each target [dBi], shape (targets,)
+    mean_gain_dbi : gain averaged over the whole sphere, 0 below the horizon [dBi]
+    rdf_db : receiving directivity factor per target, trade scale (snrgain.model.snr) [dB]
+    front_to_back_db : per target, at the target's mean elevation [dB]
+    snr_gain_db : SNR gain over the reference [dB], shape (targets, months, hours); NaN at the months and hours
+        a target is not listened for
+    snr_gain_nominal_db : per target, snr_gain_db averaged in dB over the target's months and hours [dB]
+    snr_gain_median_db, snr_gain_p10_db, snr_gain_p90_db : per target, the median and 10 % and 90 % points of
+        the SNR gain over the spreads counted (snrgain.model.spread) [dB]
+    probability_beats : per target, the probability that the SNR gain reaches Results.beat_by_db [-]
+    snr_gain_atmospheric_deciles_db : snr_gain_db with atmospheric noise at its P.372 upper and lower deciles
+        [dB], shape (2, targets, months, hours); None without atmospheric noise
+    noise_dbm : external noise delivered through the chain to the receiver input in the
+        band's bandwidth [dBm], shape (months, hours)
+    noise_by_component_dbm : the same per noise component [dBm]
+    margin_db : noise_dbm minus the chain's noise floor at the receiver input [dB]
+    receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
+    preamp_gain_needed_db : preamplifier gain that brings the margin to the target (the chain's own
+        preamplifier, or a suggested one of 3 dB noise figure before the receiver); 0 if already met,
+        NaN if no gain can [dB]
+    preamp_position : where that preamplifier goes: "receiver" (before the receiver), "antenna" (after the
+        transformer, where a lossy feed line follows), "as placed" (the chain's own), None if no gain helps
+    receiver_limited : True if margin_db falls below the margin target at any hour
+    chain : noise_figure_db, gain_db, noise_floor_dbm (at the receiver input), stages
+    """
+
+    name: str
+    family: str
+    parameters: dict[str, Any]
+    gain_dbi: np.ndarray
+    mean_gain_dbi: float
+    rdf_db: np.ndarray
+    front_to_back_db: np.ndarray
+    snr_gain_db: np.ndarray
+    noise_dbm: np.ndarray
+    noise_by_component_dbm: dict[str, np.ndarray]
+    margin_db: np.ndarray
+    receiver_snr_loss_db: np.ndarray
+    preamp_gain_needed_db: np.ndarray
+    preamp_position: str | None
+    receiver_limited: bool
+    snr_gain_nominal_db: np.ndarray
+    snr_gain_median_db: np.ndarray
+    snr_gain_p10_db: np.ndarray
+    snr_gain_p90_db: np.ndarray
+    probability_beats: np.ndarray
+    chain: dict[str, Any] = field(default_factory=dict)
+    snr_gain_atmospheric_deciles_db: np.ndarray | None = field(default=None, repr=False)
+    build: dict[str, Any] = field(default_factory=dict)
+    """What to build: termination, transformer, phasing lines (snrgain.decide.build)."""
+
+    def __repr__(self) -> str:
+        per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
+        return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
+
+
+@dataclass(frozen=True)
+class TargetResult:
+    """One target's answer: the candidates ranked by median SNR gain toward it, the best and its margin."""
+
+    name: str
+    ranking: list[str]
+    """Candidate names, highest median SNR gain first."""
+    best: str
+    runner_up: str
+    """The second candidate, or the reference when there is only one."""
+    margin_db: float
+    """The best's median SNR gain minus the runner-up's [dB]."""
+
+
+@dataclass(frozen=True)
+class PatternCuts:
+    """Total gain [dBi] on an azimuth cut at each target's mean elevation and on an elevation cut toward each
+    target's bearing: antenna name -> array (targets, cut points)."""
+
+    azimuth_deg: np.ndarray
+    elevation_deg: np.ndarray
+    azimuth: dict[str, np.ndarray]
+    elevation: dict[str, np.ndarray]
+
+
+@dataclass(frozen=True, repr=False)
+class Results:
+    """Everything ``evaluate`` computed.  ``candidates`` are in the scenario's order; ``target_results`` rank them
+    per target; ``plan`` says which to build."""
+
+    source: str
+    site: dict[str, Any]
+    freq_hz: float
+    bandwidth_hz: float
+    months: list[int]
+    utc_hours: list[float]
+    targets: list[dict[str, Any]]
+    noise: SkySeries
+    reference: AntennaResult
+    candidates: list[AntennaResult]
+    receiver: dict[str, Any]
+    nside: int
+    target_results: list[TargetResult] = field(default_factory=list)
+    plan: Any = None
+    """The station plan (snrgain.decide.plan.Plan)."""
+    uncertainty: dict[str, Any] = field(default_factory=dict)
+    """Which spreads were counted and how (JSON-ready)."""
+    beat_by_db: float = 3.0
+    notices: list[Notice] = field(default_factory=list)
+    cuts: PatternCuts | None = None
+    lot_m: list[tuple[float, float]] | None = None
+    local_sources: list[dict[str, Any]] = field(default_factory=list)
+
+    @property
+    def antennas(self) -> list[AntennaResult]:
+        """The reference, then the candidates in rank order."""
+        return [self.reference, *self.candidates]
+
+    @property
+    def warnings(self) -> list[str]:
+        """The notices as sentences."""
+        from snrgain.outputs.messages import notice_text
+
+        return [notice_text(n) for n in self.notices]
+
+    def antenna(self, name: str) -> AntennaResult:
+        """The antenna (reference or candidate) of that name."""
+        for a in self.antennas:
+            if a.name == name:
+                return a
+        raise KeyError(f"no antenna named {name!r}; the antennas are {[a.name for a in self.antennas]}")
+
+    def __repr__(self) -> str:
+        best = "; ".join(
+            f"{t.name}: {t.best!r} {self.antenna(t.best).snr_gain_median_db[i]:+.1f} dB"
+            for i, t in enumerate(self.target_results)
+        )
+        head = (
+            f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.candidates)} candidates; {best}"
+        )
+        if self.plan is not None:
+            head += f"; plan: {len(self.plan.antennas)} antenna(s), {self.plan.gain_db:+.1f} dB"
+        return head + (f"; {len(self.notices)} notice(s))" if self.notices else ")")
+
+    def to_xarray(self):
+        """The results as one labelled :class:`xarray.Dataset`, units in every variable's ``attrs["units"]``.
+
+        Dimensions: ``antenna`` (the reference, then the candidates in the scenario's order; coordinates
+        ``family``, ``is_reference``), ``target`` (coordinates ``weight``, ``bearing_deg``, ``elevation_min_deg``,
+        ``elevation_max_deg``, ``best``, ``runner_up``), ``month`` (1-12), ``utc_hour`` [h], ``quantile`` (0.1,
+        0.5, 0.9), ``component`` (the noise components; coordinate ``component_kind``) and
+        ``atmospheric_decile`` ("upper", "lower").  Variables, with their units:
+
+        - per antenna, target, month, hour: ``snr_gain_db`` [dB] (NaN where the target is not listened for);
+          ``snr_gain_atmospheric_deciles_db`` [dB] (also per atmospheric_decile; NaN without atmospheric noise);
+        - per antenna and target: ``snr_gain_quantile_db`` [dB] (per quantile: the 10 %, median and 90 %
+          points), ``snr_gain_nominal_db`` [dB], ``probability_beats_reference`` [-], ``rank_for_target`` [-]
+          (0: the reference), ``rdf_db`` [dB], ``front_to_back_db`` [dB], ``gain_toward_target_dbi`` [dBi];
+        - per antenna: ``mean_gain_dbi`` [dBi], ``receiver_limited`` [-], ``chain_noise_figure_db`` [dB],
+          ``chain_gain_db`` [dB], ``chain_noise_floor_dbm`` [dBm];
+        - per antenna, month, hour: ``noise_dbm`` [dBm], ``noise_by_component_dbm`` [dBm] (also per component),
+          ``margin_db`` [dB], ``receiver_snr_loss_db`` [dB], ``preamp_gain_needed_db`` [dB];
+        - per target: ``best_margin_db`` [dB];
+        - the sky on P.372's reference monopole: ``fa_db``, ``upper_decile_db``, ``lower_decile_db`` per
+          component, month, hour [dB, Fa above kT0b]; ``total_fa_db``, ``total_upper_decile_db``,
+          ``total_lower_decile_db``, ``median_power_sum_fa_db`` [dB] and ``median_power_sum_temperature_k`` [K]
+          per month and hour; ``daytime`` [-].
+
+        Dataset attributes: ``site``, ``latitude_deg``, ``longitude_deg``, ``frequency_hz``, ``bandwidth_hz``,
+        ``reference``, ``beat_by_db``, ``margin_target_db``, ``nside``, ``scenario``.  Select by label, e.g.
+        ``ds.snr_gain_db.sel(antenna="four-square west", target="East Asia")``.  Needs xarray (a dependency).
+        """
+        from snrgain.model.labelled import to_xarray
+
+        return to_xarray(self)
+
+    def to_dataframe(self, *, listened_only: bool = True):
+        """The results as a tidy :class:`pandas.DataFrame`: one row per target, antenna, month and UTC hour.
+
+        Rows: the targets in the scenario's order, each target's antennas by rank (the reference first, rank 0),
+        then month and hour; only the months and hours the target is listened at unless ``listened_only`` is
+        False.  Columns (units in the names): ``target``, ``rank_for_target`` [-], ``antenna``, ``family``,
+        ``month``, ``utc_hour`` [h], ``snr_gain_db`` [dB], ``gain_toward_target_dbi`` [dBi], ``rdf_db`` [dB],
+        ``front_to_back_db`` [dB], ``noise_dbm`` [dBm], ``margin_db`` [dB], ``receiver_snr_loss_db`` [dB],
+        ``preamp_gain_needed_db`` [dB], ``snr_gain_nominal_db``, ``snr_gain_p10_db``, ``snr_gain_median_db``,
+        ``snr_gain_p90_db`` [dB] (per antenna and target, repeated over its hours) and
+        ``probability_beats_reference`` [-].  Built from :meth:`to_xarray`; the CSV output is this table.
+        """
+        from snrgain.model.labelled import to_dataframe
+
+        return to_dataframe(self, listened_only=listened_only)
+
+    def to_dict(self) -> dict[str, Any]:
+        """A JSON-ready dict (numbers as floats and lists; units in the keys; schema in README, "Output")."""
+        noise = self.noise
+        return jsonable(
+            {
+                "schema_version": SCHEMA_VERSION,
+                "scenario": self.source,
+                "site": self.site,
+                "frequency_hz": self.freq_hz,
+                "bandwidth_hz": self.bandwidth_hz,
+                "months": self.months,
+                "utc_hours": self.utc_hours,
+                "targets": [t | self._target_answer(i) for i, t in enumerate(self.targets)],
+                "plan": None if self.plan is None else self._plan_dict(),
+                "uncertainty": self.uncertainty,
+                "noise": {
+                    "axes": ["month", "utc_hour"],
+                    "components": noise.components,
+                    "total_fa_db": noise.total_fa_db,
+                    "total_upper_decile_db": noise.total_du_db,
+                    "total_lower_decile_db": noise.total_dl_db,
+                    "median_power_sum_fa_db": noise.median_power_sum_fa_db,
+                    "daytime": noise.daytime,
+                },
+                "receiver": self.receiver,
+                "nside": self.nside,
+                "reference": _antenna_dict(self.reference),
+                "candidates": [_antenna_dict(c) for c in self.candidates],
+                "build": {c.name: c.build for c in self.candidates},
+                "local_sources": self.local_sources,
+                "warnings": self.warnings,
+            }
+        )
+
+    def _target_answer(self, i: int) -> dict[str, Any]:
+        tr = self.target_results[i]
+        rows = []
+        for name in tr.ranking:
+            a = self.antenna(name)
+            rows.append(
+                {
+                    "name": name,
+                    "snr_gain_db": {
+                        "median": a.snr_gain_median_db[i],
+                        "p10": a.snr_gain_p10_db[i],
+                        "p90": a.snr_gain_p90_db[i],
+                        "nominal": a.snr_gain_nominal_db[i],
+                    },
+                    "probability_beats_reference": a.probability_beats[i],
+                    "rdf_db": a.rdf_db[i],
+                    "front_to_back_db": a.front_to_back_db[i],
+                    "gain_toward_target_dbi": a.gain_dbi[i],
+                }
+            )
+        return {"ranking": rows, "best": {"name": tr.best, "runner_up": tr.runner_up, "margin_db": tr.margin_db}}
+
+    def _plan_dict(self) -> dict[str, Any]:
+        p = self.plan
+        return {
+            "antennas": p.antennas,
+            "added_db": p.added_db,
+            "gain_db": p.gain_db,
+            "method": p.method,
+            "max_antennas": p.max_antennas,
+            "by_target": [
+                {
+                    "target": self.targets[t]["name"],
+                    "served_by": [
+                        {
+                            "antenna": s.antenna,
+                            "months": s.months,
+                            "utc_hours": s.utc_hours,
+                            "snr_gain_db": s.snr_gain_db,
+                        }
+                        for s in rows
+                    ],
+                }
+                for t, rows in sorted(p.by_target.items())
+            ],
+            "not_best": [{"target": self.targets[t]["name"], **why} for t, why in sorted(p.not_best.items())],
+        }
+
+
+def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
+    return {
+        "name": a.name,
+        "family": a.family,
+        "parameters": a.parameters,
+        "snr_gain_db": {"axes": ["target", "month", "utc_hour"], "values": a.snr_gain_db},
+        "snr_gain_median_db": a.snr_gain_median_db,
+        "snr_gain_p10_db": a.snr_gain_p10_db,
+        "snr_gain_p90_db": a.snr_gain_p90_db,
+        "snr_gain_nominal_db": a.snr_gain_nominal_db,
+        "probability_beats_reference": a.probability_beats,
+        "gain_toward_target_dbi": a.gain_dbi,
+        "mean_gain_dbi": a.mean_gain_dbi,
+        "rdf_db": a.rdf_db,
+        "front_to_back_db": a.front_to_back_db,
+        "noise_dbm": {"axes": ["month", "utc_hour"], "values": a.noise_dbm},
+        "noise_by_component_dbm": a.noise_by_component_dbm,
+        "margin_db": {"axes": ["month", "utc_hour"], "values": a.margin_db},
+        "receiver_snr_loss_db": {"axes": ["month", "utc_hour"], "values": a.receiver_snr_loss_db},
+        "preamp_gain_needed_db": {"axes": ["month", "utc_hour"], "values": a.preamp_gain_needed_db},
+        "preamp_position": a.preamp_position,
+        "receiver_limited": a.receiver_limited,
+        "chain": a.chain,
+    }
+
+
+def jsonable(x):
+    """``x`` with numpy arrays and scalars turned into lists, floats, ints and bools; non-finite floats as None.
+
+    >>> jsonable({"a": np.array([1.0, np.inf]), "b": np.int64(2)})
+    {'a': [1.0, None], 'b': 2}
+    """
+    if isinstance(x, dict):
+        return {str(k): jsonable(v) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [jsonable(v) for v in x]
+    if isinstance(x, np.ndarray):
+        return jsonable(x.tolist())
+    if isinstance(x, (np.bool_, bool)):
+        return bool(x)
+    if isinstance(x, np.integer):
+        return int(x)
+    if isinstance(x, (float, np.floating)):
+        v = float(x)
+        return v if np.isfinite(v) else None
+    return x
+
+
+def rank_for_target(
+    candidates: list[AntennaResult], target_index: int, target_name: str, reference: AntennaResult
+) -> TargetResult:
+    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up."""
+    order = sorted(candidates, key=lambda a: -a.snr_gain_median_db[target_index])
+    runner = order[1] if len(order) > 1 else reference
+    margin = float(order[0].snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
+    return TargetResult(target_name, [a.name for a in order], order[0].name, runner.name, margin)
+
+
+__all__ = [
+    "Results",
+    "AntennaResult",
+    "TargetResult",
+    "Notice",
+    "PatternCuts",
+    "SCHEMA_VERSION",
+    "jsonable",
+    "rank_for_target",
+]

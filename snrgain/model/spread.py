@@ -1,0 +1,334 @@
+"""How sure: the spread of the SNR gain over what is not known exactly.
+
+Three sources of spread, each optional (``[uncertainty]`` in a scenario):
+
+- the ground: its conductivity and permittivity, each log-normal between
+  the 10 % and 90 % points of a named class's documented spread
+  (:data:`snrgain.physics.ground.CLASS_SPREAD_FACTOR`) or of the ranges given.  The
+  antennas standing on the site's ground are rebuilt at the nodes of a
+  three-point Gauss-Hermite rule in each (nine grounds; the centre node is
+  the nominal ground), e.g. M. Abramowitz and I. A. Stegun, "Handbook of
+  Mathematical Functions" (1964), 25.4.46;
+- the noise levels: each P.372 component (man-made, atmospheric, galactic)
+  spread over its decile deviations D_u, D_l as P.372 Section 8 does, a
+  normal distribution in dB whose upper half has sigma_u = D_u / 1.282 and
+  lower half sigma_l = D_l / 1.282 (1.282 is the standard normal's 90 %
+  point); a local source by its stated ``uncertainty`` the same way.  The
+  components vary independently, each by one draw for all hours, from a
+  fixed-seed generator: the same file gives the same numbers;
+- the hours: every listened hour counts as an equally likely sample (or,
+  turned off, the hours' SNR gains are averaged in dB first).
+
+Every draw applies to all antennas at once (the same sky), so the spread is
+that of the SNR gain itself, not of its parts.  A local source read on the
+reference antenna keeps that reading at every ground (its strength is
+rescaled so the reference still receives what was measured).  Pattern
+tables, arrays of elements and NEC wire structures keep their nominal ground.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from snrgain.antennas.base import variant
+from snrgain.physics.ground import Ground, GroundSpread
+
+Z90 = 1.2815515655446004
+"""The standard normal's 90 % point: a decile deviation is Z90 standard deviations."""
+
+_GH3 = ((-np.sqrt(3.0), 1.0 / 6.0), (0.0, 2.0 / 3.0), (np.sqrt(3.0), 1.0 / 6.0))
+"""Three-point Gauss-Hermite rule for a standard normal variable: (node, weight)."""
+
+
+@dataclass(frozen=True)
+class SnrSpread:
+    """Per antenna and target (arrays (antennas, targets)): the SNR gain's median, 10 % and 90 % points [dB], and
+    the probability [-] that it reaches ``beat_by_db`` over the reference."""
+
+    median_db: np.ndarray
+    p10_db: np.ndarray
+    p90_db: np.ndarray
+    probability: np.ndarray
+    beat_by_db: float
+
+
+def ground_nodes(nominal: Ground | None, spread: GroundSpread | None) -> list[tuple[Ground | None, float]]:
+    """(ground, weight) nodes over the ground's spread; the nominal ground alone when there is none."""
+    if nominal is None or spread is None or spread.is_zero:
+        return [(nominal, 1.0)]
+    (s_lo, s_hi), (e_lo, e_hi) = spread.conductivity_s_per_m, spread.permittivity
+    ls, le = np.log(np.sqrt(s_lo * s_hi)), np.log(np.sqrt(e_lo * e_hi))
+    ws, we = np.log(s_hi / s_lo) / (2 * Z90), np.log(e_hi / e_lo) / (2 * Z90)
+    nodes = []
+    for zs, w1 in _GH3:
+        for ze, w2 in _GH3:
+            if zs == 0.0 and ze == 0.0:
+                nodes.append((nominal, w1 * w2))
+                continue
+            g = Ground(
+                float(np.exp(ls + zs * ws)),
+                float(np.clip(np.exp(le + ze * we), 1.0, 100.0)),
+                f"{nominal.name} (spread)",
+                spread.source,
+            )
+            nodes.append((g, w1 * w2))
+    return nodes
+
+
+def noise_offsets_db(
+    skies, local_uncertainty_db: dict[str, float], *, samples: int, seed: int, deciles: bool
+) -> np.ndarray:
+    """Draws of each component's level offset [dB], shape (draws, components, months, hours).
+
+    P.372 components use their decile deviations (when ``deciles``), local sources the uncertainty given.
+    One draw (all zeros) when nothing is uncertain.
+    """
+    nc, nm, nh = len(skies.names), len(skies.months), len(skies.utc_hours)
+    du = np.zeros((nc, nm, nh))
+    dl = np.zeros((nc, nm, nh))
+    for i, (name, kind) in enumerate(zip(skies.names, skies.kinds)):
+        if kind == "local":
+            du[i] = dl[i] = local_uncertainty_db.get(name, 0.0)
+        elif deciles:
+            du[i] = np.nan_to_num(skies.du_db[i])
+            dl[i] = np.nan_to_num(skies.dl_db[i])
+    if not (np.any(du) or np.any(dl)):
+        return np.zeros((1, nc, nm, nh))
+    z = np.random.default_rng(seed).standard_normal((samples, nc))[:, :, None, None]
+    return np.where(z > 0, z * du / Z90, z * dl / Z90)
+
+
+def on_ground(sc, antennas, ground) -> list:
+    """``antennas`` with those standing on the site's ground moved to ``ground`` (new antennas; a setting made
+    under the sky is kept, and phasing units are remade over their moved parts)."""
+    from snrgain.model.pipeline import repoint
+
+    moved = []
+    for ant in antennas:
+        on_site = not ant.fixed_ground and getattr(ant, "ground", "none") == sc.site.ground
+        moved.append(variant(ant, ground=ground) if on_site and ground is not sc.site.ground else ant)
+    return repoint(moved, list(antennas))
+
+
+def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
+    """(products, weight) of each ground node: the nominal products at the centre node, the same stages
+    (:func:`snrgain.model.pipeline.products`) over the antennas moved to each other ground; a level read on the
+    reference keeps that reading at every ground (its strength moves so the moved reference still receives it)."""
+    from snrgain.model.pipeline import products, strength_offsets_db
+
+    u = sc.uncertainty
+    out = []
+    for ground, weight in ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None):
+        if ground is sc.site.ground:
+            out.append((nominal, weight))
+            continue
+        moved = on_ground(sc, nominal.antennas, ground)
+        strength = strength_offsets_db(sc, moved[0])
+        out.append((products(sc, moved, grid, skies, ground=ground, strength_db=strength, known=nominal), weight))
+    return out
+
+
+DRAW_BLOCK = 1000
+"""Noise draws worked at once: memory for the draws' level factors stays near DRAW_BLOCK x components x cells."""
+FACTORS_HELD = 32_000_000
+"""Up to this many draw x component x cell level factors (256 MB) are computed once and held; beyond, per block."""
+EXACT_VALUES = 500_000
+"""Up to this many weighted samples per antenna and target a quantile is taken by sorting them; above, on
+0.001 dB histograms (:class:`Histogram`)."""
+
+
+def noise_db(factors_of, temps_by_component, t_chain_k: float, draws: int) -> np.ndarray:
+    """An antenna's noise [dB K] under each draw, (draws, months, hours): its temperature from each component
+    scaled by the draw's level factors, plus its chain's; the draws worked DRAW_BLOCK at a time."""
+    out = []
+    for start in range(0, draws, DRAW_BLOCK):
+        f = factors_of(start, min(start + DRAW_BLOCK, draws))  # (block, comps, months, hours)
+        out.append(10.0 * np.log10(np.einsum("ncmh,cmh->nmh", f, temps_by_component) + t_chain_k))
+    return np.concatenate(out)
+
+
+def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
+    """The SNR gain's spread for every antenna and target (module docstring): a map of the pipeline's stages over
+    the ground nodes, then of the noise draws.
+
+    The SNR gain over the reference under a draw is the ratio of signals (one number per antenna and target)
+    over the ratio of noises (per draw, month and hour, the same for every target), so the noise is worked once per
+    antenna and node, and memory grows with the draws and the hours, not with the antennas or the targets.
+    """
+    u = sc.uncertainty
+    per_node = variants(sc, nominal, grid, skies)
+    local = {s.name: s.uncertainty_db for s in sc.noise.local} if u.local_sources else {}
+    offsets = noise_offsets_db(skies, local, samples=u.samples, seed=u.seed, deciles=u.noise_deciles)
+    draws = offsets.shape[0]
+
+    held = 10.0 ** (offsets / 10.0) if offsets.size <= FACTORS_HELD else None  # (draws, comps, months, hours)
+
+    def factors_of(i, j):
+        return held[i:j] if held is not None else 10.0 ** (offsets[i:j] / 10.0)
+
+    t_chain = np.array([c.temperature_k for c in sc.chains])
+    masks = [times.mask(sc.times) for times in sc.target_times]
+    with np.errstate(divide="ignore"):
+        ref_noise = [noise_db(factors_of, p.temps.by_component[:, 0], t_chain[0], draws) for p, _ in per_node]
+    n_ant, n_tgt = nominal.gains.toward.shape
+    out = {k: np.zeros((n_ant, n_tgt)) for k in ("median", "p10", "p90", "prob")}
+    for a in range(n_ant):
+        with np.errstate(divide="ignore"):
+            nodes = [
+                (
+                    10.0 * np.log10(p.gains.toward[a] / p.gains.toward[0]),  # (targets,)
+                    noise_db(factors_of, p.temps.by_component[:, a], t_chain[a], draws) - ref,  # (draws, m, h)
+                    weight,
+                )
+                for (p, weight), ref in zip(per_node, ref_noise)
+            ]
+        per_target = [int(m.sum()) if u.hours else 1 for m in masks]
+        if len(nodes) * draws * max(per_target) <= EXACT_VALUES:
+            for t_idx, mask in enumerate(masks):
+                values, weights = [], []
+                for signal, noise, weight in nodes:
+                    cells = signal[t_idx] - noise[:, mask]  # (draws, cells)
+                    if not u.hours:
+                        cells = cells.mean(axis=1, keepdims=True)
+                    values.append(cells.ravel())
+                    weights.append(np.full(cells.size, weight / cells.size))
+                v, w = np.concatenate(values), np.concatenate(weights)
+                stats = (*weighted_quantiles(v, w, (0.1, 0.5, 0.9)), float(np.sum(w[v >= u.beat_by_db]) / np.sum(w)))
+                out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
+            continue
+        hists: dict[bytes, list] = {}  # one histogram of -noise per node and distinct set of listened cells
+        for t_idx, mask in enumerate(masks):
+            key = mask.tobytes()
+            if key not in hists:
+                hists[key] = [
+                    Histogram.of(-noise[:, mask] if u.hours else -noise[:, mask].mean(axis=1)) for _, noise, _ in nodes
+                ]
+            total = Histogram.sum(
+                [h.shifted(signal[t_idx]).scaled(weight) for h, (signal, _, weight) in zip(hists[key], nodes)]
+            )
+            stats = (*total.quantiles((0.1, 0.5, 0.9)), total.share_at_least(u.beat_by_db))
+            out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
+    return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
+
+
+@dataclass(frozen=True)
+class Size:
+    """What a scenario's evaluation will cost, estimated before any work from its dimensions."""
+
+    antennas: int
+    grounds: int
+    draws: int
+    components: int
+    cells: int
+    pixels: int
+    noise_work: float
+    """Element operations of each antenna's noise under every draw at every ground [-]."""
+    sky_work: float
+    """Multiply-adds of the sky integrals of every antenna at every ground (matrix products) [-]."""
+    memory_bytes: int
+    """The largest arrays held at once [B]."""
+
+    NOISE_OPS_PER_SECOND = 2e8
+    SKY_OPS_PER_SECOND = 2e9
+    """Rates these steps reach on one core, measured on the limits scenario of benchmarks/limits.py (a rough
+    scale: the estimate is for refusing what cannot finish, not a timer)."""
+
+    @property
+    def seconds(self) -> float:
+        return self.noise_work / self.NOISE_OPS_PER_SECOND + self.sky_work / self.SKY_OPS_PER_SECOND
+
+
+def size(sc) -> Size:
+    """The cost of a scenario's evaluation (:class:`Size`), from its dimensions alone."""
+    u = sc.uncertainty
+    nodes = len(ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None))
+    deciles = u.noise_deciles or (u.local_sources and any(s.uncertainty_db > 0 for s in sc.noise.local))
+    draws = u.samples if deciles else 1
+    cells = len(sc.times.months) * len(sc.times.utc_hours)
+    comps = 3 + len(sc.noise.local)
+    pixels = 6 * sc.nside**2  # the upper hemisphere
+    ants = len(sc.antennas)
+    factors = draws * comps * cells
+    held = factors <= FACTORS_HELD  # else the level factors are computed again per antenna and ground (8x the cost)
+    memory = 8 * ((factors if held else DRAW_BLOCK * comps * cells) + 2 * nodes * draws * cells + 3 * cells * pixels)
+    noise = float(ants * nodes * factors * (1 if held else 8))
+    sky = float(ants * nodes * 3 * cells * pixels)
+    return Size(ants, nodes, draws, comps, cells, pixels, noise, sky, int(memory))
+
+
+@dataclass(frozen=True)
+class Histogram:
+    """Weighted samples [dB] on bins of STEP_DB: bin k holds the weight of the values nearest ``(start + k) *
+    STEP_DB``.  A constant added to every sample is a shift of whole bins, so the histograms of one antenna's
+    noise serve every target (each adds its signal), in time linear in the samples once and in the bins after."""
+
+    start: int
+    weights: np.ndarray
+
+    STEP_DB = 0.001
+
+    @classmethod
+    def of(cls, values) -> Histogram:
+        """The histogram of equally weighted samples (total weight 1)."""
+        v = np.clip(np.asarray(values, dtype=float).ravel(), -400.0, 400.0)
+        k = np.rint(v / cls.STEP_DB).astype(np.int64)
+        lo = int(k.min())
+        return cls(lo, np.bincount(k - lo) / v.size)
+
+    def shifted(self, db: float) -> Histogram:
+        return Histogram(self.start + int(np.rint(db / self.STEP_DB)), self.weights)
+
+    def scaled(self, factor: float) -> Histogram:
+        return Histogram(self.start, self.weights * factor)
+
+    @staticmethod
+    def sum(hists) -> Histogram:
+        lo = min(h.start for h in hists)
+        hi = max(h.start + h.weights.size for h in hists)
+        w = np.zeros(hi - lo)
+        for h in hists:
+            w[h.start - lo : h.start - lo + h.weights.size] += h.weights
+        return Histogram(lo, w)
+
+    def quantiles(self, qs) -> tuple[float, ...]:
+        """The values [dB] below which the fractions ``qs`` of the weight lie (to half a bin).
+
+        >>> v = np.random.default_rng(1).normal(0.0, 3.0, 2_000_000)
+        >>> h = Histogram.of(v).quantiles((0.1, 0.5, 0.9))
+        >>> bool(np.allclose(h, weighted_quantiles(v, np.ones(v.size), (0.1, 0.5, 0.9)), atol=0.001))
+        True
+        """
+        nz = np.nonzero(self.weights)[0]  # as weighted_quantiles: linear between the bins' weight midpoints
+        w = self.weights[nz]
+        mid = (np.cumsum(w) - 0.5 * w) / w.sum()
+        return tuple(float(np.interp(q, mid, (self.start + nz) * self.STEP_DB)) for q in qs)
+
+    def share_at_least(self, db: float) -> float:
+        """The fraction of the weight at or above ``db``."""
+        k = int(np.ceil(db / self.STEP_DB - 1e-9)) - self.start
+        return float(self.weights[max(k, 0) :].sum() / self.weights.sum())
+
+
+def over_hours(values_db, hours: bool) -> float:
+    """The one statistic over a target's months and hours of nominal SNR gains [dB]: their median, or with the
+    hours not counted as a spread (``[uncertainty] hours = false``) their mean in dB."""
+    v = np.asarray(values_db, dtype=float)
+    return float(np.median(v) if hours else np.mean(v))
+
+
+def weighted_quantiles(values, weights, quantiles) -> tuple[float, ...]:
+    """Quantiles of weighted samples (linear between the midpoints of the sorted samples' weights).
+
+    >>> weighted_quantiles([1.0, 2.0, 3.0], [1.0, 1.0, 1.0], (0.5,))
+    (2.0,)
+    >>> weighted_quantiles([5.0], [1.0], (0.1, 0.9))
+    (5.0, 5.0)
+    """
+    v = np.asarray(values, dtype=float)
+    w = np.asarray(weights, dtype=float)
+    order = np.argsort(v, kind="stable")
+    v, w = v[order], w[order]
+    cum = (np.cumsum(w) - 0.5 * w) / np.sum(w)
+    return tuple(float(np.interp(q, cum, v)) for q in quantiles)

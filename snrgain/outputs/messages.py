@@ -1,0 +1,97 @@
+"""Sentences for the user, from the data the library returns (:class:`snrgain.model.results.Notice`).
+
+The library records what happened as codes and numbers; this module, at the
+edge, says it in words for the terminal, the report and the JSON warnings.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from snrgain.model.notices import Notice
+from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
+
+
+def notice_text(n: Notice) -> str:
+    """One notice as a sentence (prefixed by the antenna's name where it concerns one)."""
+    v = n.values
+    if n.code == "receiver-limited":
+        return (
+            f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
+            f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
+            f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
+        )
+    if n.code == "lobe-away-from-bearing":
+        return (
+            f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
+            f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
+            "element's signal by its phase) or its delays (positive: the signal comes later)"
+        )
+    if n.code == "far-ground-too-high":
+        resistor = v["z0_ohm"] - v["far_ground_ohm"]
+        head = f"{n.antenna}: its far ground ({v['far_ground_ohm']:.0f} ohm) "
+        head += (
+            f"exceeds the wire's |Z0| ({v['z0_ohm']:.0f} ohm), so no resistor can terminate it"
+            if resistor <= 0
+            else f"takes up most of the wire's |Z0| ({v['z0_ohm']:.0f} ohm), leaving a {resistor:.0f} ohm resistor"
+        )
+        return (
+            head + "; a rod's resistance drifts with soil moisture and the rear null with it: lower the far ground "
+            "(longer or more rods, or a few short radials) until the resistor carries most of |Z0|"
+        )
+    if n.code == "off-lot":
+        far = "under 1 m" if v["outside_m"] < 1 else f"up to {v['outside_m']:.0f} m"
+        return f"{n.antenna}: runs off the lot, {far} beyond its edge"
+    if n.code == "in-keep-out":
+        return f"{n.antenna}: enters the keep-out area {v['area']!r}"
+    if n.code == "wires-cross":
+        return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
+    if n.code == "near-tx-vertical":
+        return (
+            f"{n.antenna}: comes within {v['distance_m']:.0f} m of the transmitting vertical (keep "
+            f"{v['clearance_m']:.0f} m): a resonant vertical nearby re-radiates what it receives and distorts the "
+            "pattern; detuning it while receiving (opening its feed, or a detuning network) is the usual cure"
+        )
+    if n.code == "source-in-keep-out":
+        return f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r}"
+    if n.code == "man-made-extrapolated":
+        return (
+            f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "
+            "is extrapolated"
+        )
+    detail = ", ".join(f"{k} = {val}" for k, val in sorted(v.items()))
+    return f"{n.antenna + ': ' if n.antenna else ''}{n.code}" + (f" ({detail})" if detail else "")
+
+
+def preamp_advice_text(gain_db: float, position: str | None) -> str:
+    """What preamplifier would meet the margin target, in words (NaN gain: none would)."""
+    if gain_db is None or not np.isfinite(gain_db):
+        return (
+            "No preamplifier gain reaches the target at every hour; a quieter preamplifier, a shorter or "
+            "lower-loss feed line, or a quieter receiver would."
+        )
+    if position == "as placed":
+        which = "the chain's preamplifier"
+    else:
+        where = "before the receiver" if position == "receiver" else "at the antenna, after the transformer"
+        which = f"a preamplifier of {SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
+    return f"About {gain_db:.0f} dB of gain from {which} would reach the target."
+
+
+PLAN_WORTH = (
+    "each target's median SNR gain on the antenna that serves it, averaged over the targets by weight as power ratios"
+)
+"""What the station plan's worth is, in words (snrgain.decide.plan)."""
+
+
+def plan_not_best_text(target: str, why: dict) -> str:
+    """Why the plan serves a target with another antenna than the target's best, in words."""
+    reason = (
+        "the plan holds no more antennas ([plan] max_antennas)"
+        if why["reason"] == "max_antennas"
+        else "building it adds less than 0.1 dB to the plan as a whole"
+    )
+    return (
+        f"{target}: the best, {why['best']} ({why['best_db']:+.1f} dB), is not in the plan because {reason}; "
+        f"{why['served_by']} serves it ({why['served_db']:+.1f} dB)."
+    )

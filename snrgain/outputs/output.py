@@ -1,0 +1,371 @@
+"""Results as a terminal table, JSON or CSV (files are written by :mod:`snrgain.files`)."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+
+import numpy as np
+
+from snrgain.model.results import Results
+from snrgain.units import FT_PER_M, s_units
+
+
+def to_json(results: Results) -> str:
+    """JSON text of ``results.to_dict()``: sorted keys, non-finite numbers as null."""
+    return json.dumps(results.to_dict(), sort_keys=True, indent=2, allow_nan=False) + "\n"
+
+
+CSV_COLUMNS = [
+    "target",
+    "rank_for_target",
+    "antenna",
+    "family",
+    "month",
+    "utc_hour",
+    "snr_gain_db",
+    "gain_toward_target_dbi",
+    "rdf_db",
+    "front_to_back_db",
+    "noise_dbm",
+    "margin_db",
+    "receiver_snr_loss_db",
+]
+
+
+def to_csv(results: Results) -> str:
+    """One row per target, antenna and listened month and hour (the reference has rank 0): the columns
+    :data:`CSV_COLUMNS` of :meth:`Results.to_dataframe`, dB to 0.001."""
+    df = results.to_dataframe()
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(CSV_COLUMNS)
+    as_text = [
+        "{:.3f}".format if c.endswith(("_db", "_dbi", "_dbm")) else "{:g}".format if c == "utc_hour" else str
+        for c in CSV_COLUMNS
+    ]
+    for row in df[CSV_COLUMNS].itertuples(index=False):
+        w.writerow([f(v) for f, v in zip(as_text, row)])
+    return buf.getvalue()
+
+
+def _f(x, fmt="{:+.1f}"):
+    x = float(x)
+    if np.isnan(x):
+        return "-"
+    if np.isinf(x):
+        return "inf" if x > 0 else "-inf"
+    return fmt.format(x)
+
+
+def _preamp_cell(limited: bool, gain_db) -> str:
+    if not limited:
+        return "-"
+    g = np.asarray(gain_db, dtype=float)
+    return "none" if np.any(np.isnan(g)) else f"{float(np.max(g)):.0f}"
+
+
+def hours_text(hours) -> str:
+    """UTC hours as a compact list: "22-23, 0-4 UTC" for runs of whole hours, else the hours.
+
+    >>> hours_text([0.0, 1.0, 2.0, 5.0, 22.0, 23.0])
+    '0-2, 5, 22-23 UTC'
+    """
+    hs = sorted(float(h) for h in hours)
+    parts, start = [], None
+    for i, h in enumerate(hs):
+        if start is None:
+            start = h
+        nxt = hs[i + 1] if i + 1 < len(hs) else None
+        if nxt is None or nxt - h != 1.0:
+            parts.append(f"{start:g}" if start == h else f"{start:g}-{h:g}")
+            start = None
+    return ", ".join(parts) + " UTC"
+
+
+def ground_text(site: dict) -> str:
+    """The site's ground in words: its name and constants."""
+    if site["ground"] == "perfect":
+        return "perfect"
+    sigma, eps = site["ground_conductivity_s_per_m"], site["ground_permittivity"]
+    name = "" if site["ground"] == "custom" else f"{site['ground']}, "
+    return f"{name}{sigma * 1e3:.3g} mS/m, relative permittivity {eps:.3g}"
+
+
+def _header(r: Results):
+    from rich.text import Text
+
+    head = Text()
+    head.append(f"{r.site['name']}", style="bold")
+    head.append(f"  {r.site['latitude_deg']:.2f}, {r.site['longitude_deg']:.2f}  ground: {ground_text(r.site)}\n")
+    head.append(f"{r.freq_hz / 1e6:g} MHz in {r.bandwidth_hz:g} Hz; reference: {r.reference.name}\n")
+    noise_bits = []
+    for name, c in r.noise.components.items():
+        fa = c["fa_db"]
+        finite = fa[np.isfinite(fa)]
+        some_screened = " (screened at some hours)" if 0 < finite.size < fa.size else ""
+        if finite.size == 0:
+            noise_bits.append(f"{name}: screened")
+        elif np.ptp(finite) < 0.05:
+            noise_bits.append(f"{name}: Fa {finite[0]:.1f} dB{some_screened}")
+        else:
+            noise_bits.append(f"{name}: Fa {finite.min():.1f} to {finite.max():.1f} dB{some_screened}")
+    head.append("Noise on P.372's reference monopole: " + "; ".join(noise_bits) + "\n")
+    stages = ", ".join(
+        f"{st['name']} {st['gain_db']:+.1f} dB"
+        for st in r.receiver["chain_stages"][:-1]
+        if abs(st["gain_db"]) > 1e-9 or st["noise_figure_db"] > 1e-9
+    )
+    head.append(
+        f"Receiver: NF {r.receiver['noise_figure_db']:.1f} dB; chain NF {r.receiver['chain_noise_figure_db']:.1f} dB"
+        f"{' (' + stages + ')' if stages else ''}; floor at the receiver {r.receiver['noise_floor_dbm']:.1f} dBm\n"
+    )
+    return head
+
+
+def spread_note(r: Results) -> str:
+    """Which spreads the medians and bands count, in words."""
+    u = r.uncertainty
+    parts = []
+    if u.get("ground"):
+        g = u["ground"]
+        s_lo, s_hi = (x * 1e3 for x in g["conductivity_s_per_m"])
+        e_lo, e_hi = g["permittivity"]
+        parts.append(f"ground {s_lo:.2g}-{s_hi:.2g} mS/m, permittivity {e_lo:.3g}-{e_hi:.3g}")
+    if u.get("noise_deciles"):
+        parts.append("P.372 noise deciles")
+    if u.get("local_sources_db"):
+        parts.append("local source levels")
+    if u.get("hours"):
+        parts.append("hour to hour")
+    return "spread over " + (", ".join(parts) if parts else "nothing (every spread is off)")
+
+
+def target_table(r: Results, i: int, ds=None):
+    """One target's ranking: median SNR gain with its 10-90 % band, the chance of beating the reference, RDF,
+    front-to-back, and each antenna's noise against the receiver.
+
+    The numbers are read from the labelled results ``ds`` (:meth:`Results.to_xarray`, made here if not given).
+    """
+    from rich.table import Table
+    from rich.text import Text
+
+    ds = r.to_xarray() if ds is None else ds
+    at = ds.isel(target=i)
+    t = r.targets[i]
+    where = f"{t['bearing_deg']:.0f} deg, {t['elevation_min_deg']:.0f}-{t['elevation_max_deg']:.0f} deg elevation"
+    if t.get("distance_km"):
+        where += f", {t['distance_km']:.0f} km"
+    when = f"months {', '.join(str(m) for m in t['months'])}; {hours_text(t['utc_hours'])}"
+    table = Table(
+        title=Text(f"{t['name']}: {where}; {when}", style="bold"),
+        title_justify="left",
+        caption=f"SNR gain over {ds.attrs['reference']}; {spread_note(r)}",
+        caption_justify="left",
+    )
+    table.add_column("#", justify="right", no_wrap=True)
+    table.add_column("antenna", no_wrap=True, max_width=32)
+    for label in (
+        "SNR gain dB\nmedian (10-90 %)",
+        f"P(>={ds.attrs['beat_by_db']:g}\ndB)",
+        "RDF\ndB",
+        "F/B\ndB",
+        "noise dBm\n(S-meter)",
+        "margin\ndB",
+        "preamp\ndB",
+    ):
+        table.add_column(label, justify="right", no_wrap=True)
+
+    names = [str(n) for n in at["antenna"].values]
+    spread = at["snr_gain_quantile_db"].transpose("antenna", "quantile").values  # 10 %, median, 90 % [dB]
+    for k in np.argsort(at["rank_for_target"].values, kind="stable"):  # the reference (rank 0), then the ranking
+        a = at.isel(antenna=k)
+        noise = float(np.median(a["noise_dbm"].values))
+        margin = float(np.min(a["margin_db"].values))
+        limited = bool(a["receiver_limited"])
+        if bool(a["is_reference"]):
+            rank, gain, prob, style = "ref", "0 (reference)", "-", "dim"
+        else:
+            p10, med, p90 = spread[k]
+            rank, gain, style = str(int(a["rank_for_target"])), f"{_f(med)} ({_f(p10)} to {_f(p90)})", None
+            prob = f"{100 * float(a['probability_beats_reference']):.0f} %"
+        table.add_row(
+            rank,
+            Text(names[k]),
+            gain,
+            prob,
+            _f(a["rdf_db"]),
+            _f(np.clip(float(a["front_to_back_db"]), -99, 99)),
+            f"{noise:.1f} ({s_units(noise)})",
+            Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
+            _preamp_cell(limited, a["preamp_gain_needed_db"].values),
+            style=style,
+        )
+    best, runner_up = str(at["best"].values), str(at["runner_up"].values)
+    p10, med, p90 = spread[names.index(best)]
+    reference = ds.attrs["reference"]
+    verdict = Text()
+    if med > 0:
+        verdict.append(f"Best toward {t['name']}: ", style="bold")
+        verdict.append(f"{best}", style="bold green")
+        verdict.append(
+            f", {med:+.1f} dB over {reference} (median; {p10:+.1f} to {p90:+.1f} dB), "
+            f"{float(at['best_margin_db']):.1f} dB ahead of {runner_up}."
+        )
+    else:
+        verdict.append(
+            f"Toward {t['name']} no candidate beats {reference} (best: {best}, {med:+.1f} dB).", style="bold"
+        )
+    from rich.console import Group
+
+    return Group(table, verdict, Text(""))
+
+
+def also_build(r: Results, k: int) -> str:
+    """For the plan's k-th antenna: " (build X for it)" when it is a combination whose other part is neither the
+    reference nor built earlier in the plan, else ""."""
+    p = r.plan
+    name = p.antennas[k]
+    ant = next((a for a in r.candidates if a.name == name), None)
+    parts = [] if ant is None else ant.parameters.get("antennas") or []  # only a combination holds antennas
+    needs = [x for x in parts if x != r.reference.name and x not in p.antennas[:k]]
+    return f" (build {' and '.join(needs)} for it)" if needs else ""
+
+
+def plan_text(r: Results):
+    """The station plan in words: what to build, in order, the dB each adds, and who serves which target when."""
+    from rich.text import Text
+
+    from snrgain.outputs.messages import PLAN_WORTH, plan_not_best_text
+
+    p = r.plan
+    out = Text()
+    out.append("Station plan", style="bold")
+    limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
+    if not p.antennas:
+        out.append(f"{limit}: no candidate adds {0.1:g} dB or more; keep {r.reference.name}.\n")
+        return out
+    out.append(
+        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone ({PLAN_WORTH})\n"
+    )
+    for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
+        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also_build(r, k)}\n")
+    for t, rows in sorted(p.by_target.items()):
+        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
+        out.append(f"  {r.targets[t]['name']}: {served}\n")
+    for t, why in sorted(p.not_best.items()):
+        out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why)}\n")
+    return out
+
+
+def build_lines(r: Results) -> list[tuple[str, str]]:
+    """(candidate, what to build) in words, one per candidate, from what each build sheet contains."""
+    from snrgain.antennas import FAMILIES
+
+    out = []
+    for a in r.candidates:
+        b = a.build
+        bits = []
+        loop = "loop_height_m" in b  # a loop is given by its shape, width and height, not a length
+        if "length_m" in b and not loop:
+            bits.append(f"{b['length_m']:.1f} m ({b['length_ft']:.0f} ft)")
+        if "depth_m" in b:  # a wire on the ground, laid on it or buried
+            bits.append(
+                "insulated wire laid on the ground"
+                if not b.get("depth_m")
+                else f"insulated wire buried {100 * b['depth_m']:.0f} cm deep"
+            )
+        elif "height_m" in b:
+            bits.append(f"height {b['height_m']:.2f} m ({b['height_m'] * FT_PER_M:.1f} ft)")
+        if "bearing_deg" in b:
+            bits.append(f"toward {b['bearing_deg']:.0f} deg")
+        if loop:
+            bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
+        if "termination_ohm" in b:
+            far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
+            bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")
+            if b.get("end_to_end_loss_db", 0.0) > 20.0:
+                bits.append(
+                    f"the wire loses {b['end_to_end_loss_db']:.0f} dB end to end, so the termination hardly matters"
+                )
+        if "turns_ratio" in b:
+            bits.append(
+                f"transformer {b['turns_ratio']:.2f}:1 to {b['coax_ohm']:g} ohm coax (mismatch "
+                f"{b['mismatch_loss_db']:.2f} dB; practical {b['practical_turns_ratio']:g}:1, "
+                f"{b['practical_mismatch_loss_db']:.2f} dB)"
+            )
+        if "delays_ns" in b:
+            lines = ", ".join(f"{d:.0f} ns = {m:.2f} m" for d, m in zip(b["delays_ns"], b["phasing_lengths_m"]))
+            bits.append(f"phasing delays {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})")
+            amps = b.get("amplitudes") or []
+            if amps and max(amps) - min(amps) > 1e-3:
+                bits.append("amplitudes " + ", ".join(f"{20 * np.log10(x):.1f} dB" if x > 0 else "off" for x in amps))
+        if b.get("feed") in ("current", "lines"):
+            z = ", ".join(f"{re:.0f}{im:+.0f}j" for re, im in b["feed_impedances_ohm"])
+            how = "currents forced" if b["feed"] == "current" else f"fed through {b['line_impedance_ohm']:g} ohm lines"
+            bits.append(f"{how}; feed impedances {z} ohm")
+            if b["feed"] == "lines":
+                cur = ", ".join(
+                    f"{m:.2f} at {lag:.0f} deg" for m, lag in zip(b["current_magnitudes"], b["current_lags_deg"])
+                )
+                bits.append(f"element currents (lag) {cur}")
+        if b.get("setting"):  # two antennas through a phase and amplitude unit
+            st = b["setting"]
+            first, second = b["antennas"]
+            bits.append(
+                f"add {second} to {first} through a phase and amplitude unit: {second} lagging "
+                f"{st['phase_lag_deg']:.0f} deg at {st['amplitude_db']:+.1f} dB"
+            )
+            if "loss_with_error_db" in st:
+                bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
+        if "ground_loss_ohm" in b:
+            bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
+        if not bits:  # nothing to cut or solder: a yardstick, or an antenna its source describes (the family says)
+            family = FAMILIES.get(b.get("family", a.family))
+            if family is not None and not family.build.buildable:
+                bits.append("a yardstick, not an antenna to build")
+            else:
+                bits.append(
+                    f"{family.summary if family else 'no dimensions to give'}: build it as its source describes"
+                )
+        out.append((a.name, "; ".join(bits)))
+    return out
+
+
+def build_text(r: Results):
+    """The build sheets, compactly: the values to cut, wind and solder for each candidate."""
+    from rich.text import Text
+
+    out = Text()
+    out.append("Build sheet", style="bold")
+    out.append(" (resistors: nearest E12 value, IEC 60063; turns ratio antenna side over coax side)\n")
+    for name, text in build_lines(r):
+        out.append(f"  {name}: ", style="bold")
+        out.append(text + "\n")
+    return out
+
+
+def ranking_table(results: Results, *, build: bool = False):
+    """A rich renderable: header lines, one ranking per target, the station plan, and (``build``) the build
+    sheet."""
+    from rich.console import Group
+    from rich.text import Text
+
+    r = results
+    parts = [_header(r)]
+    ds = r.to_xarray()
+    parts += [target_table(r, i, ds) for i in range(len(r.targets))]
+    parts.append(plan_text(r))
+    if build:
+        parts.append(build_text(r))
+    parts.append(
+        Text(
+            "RDF on the trade's scale (gain toward the target over the gain averaged over the whole sphere); "
+            "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
+            "hour); '!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the "
+            "target ('none' if no gain can).",
+            style="dim",
+        )
+    )
+    return Group(*parts)

@@ -1,0 +1,359 @@
+"""One self-contained HTML report from a Results object.
+
+The report holds the scenario summary, the ranked table, every figure (as
+inline SVG: sharp when printed, no network needed), the models used with
+their published sources and limits, and the safety cautions.  It has no
+scripts and loads nothing from elsewhere.
+"""
+
+from __future__ import annotations
+
+import html
+import io
+from datetime import UTC, datetime
+
+import numpy as np
+
+from snrgain.outputs import plots
+from snrgain.outputs.output import ground_text
+from snrgain.units import s_units
+
+SAFETY = [
+    "Keep every wire, mast and support well clear of power lines: farther away than it could reach if it fell. "
+    "Never work near power lines.",
+    "Lightning and rain or snow static charge long wires: bleed static to ground, disconnect and ground the feed line "
+    "where it enters the building, and do not handle antennas when storms are near.",
+    "Before driving a ground rod or burying a radial, have buried utilities (power, gas, water, telecoms) located.",
+    "Wires on or just above the ground are trip and mower hazards: mark them, pin them down or bury them where "
+    "people and animals walk.",
+    "Follow your local electrical and building codes; where they require it, have a licensed electrician do the "
+    "grounding and bonding.",
+]
+
+MODELS = [
+    (
+        "Noise levels",
+        "Recommendation ITU-R P.372: man-made noise (Table 1 categories and decile deviations), "
+        "galactic noise (Fa = 52 - 23 log f), atmospheric noise from the ITU-R Study Group 3 numerical maps "
+        "(Zacharisen and Jones 1970; Lucas and Harper 1965), combination by Section 8.",
+    ),
+    (
+        "Noise directions",
+        "HEALPix sky (Gorski et al. 2005). Man-made: low angles (snrgain's assumption). "
+        "Atmospheric: snrgain's storm-to-site sky-wave model (absorption of the George and Bradley form) or uniform "
+        "or a sector. Galactic: passed above the ionosphere's penetration elevation (secant law). Every map is "
+        "normalised to P.372's reference monopole.",
+    ),
+    (
+        "Antennas",
+        "Vertical: sinusoidal current with Fresnel ground reflection and a radial-loss resistance. "
+        "Long wires: transmission-line model on the exact mode of a wire over lossy ground (Sommerfeld's potentials "
+        "in Wait's 1972 line-source form; the closed form of Deri et al. 1981 as an option), checked against NEC-2. "
+        "Arrays: complex responses combined with their weights; coupled verticals by the induced-EMF method; "
+        "auto steering by maximum-SNR weights (Van Trees 2002). Small loop: magnetic dipole over ground (Kraus). "
+        "Tables: interpolated as given.",
+    ),
+    (
+        "Receiving chain",
+        "Friis cascade (1944); ITU-R P.372 Section 2 system noise factor; cable losses typical of "
+        "the generic types (snrgain's assumption, not checked against datasheets).",
+    ),
+    (
+        "Limits",
+        "Far-field plane waves (a source known by its bearing treated as distant; a placed source's field falls with "
+        "distance by Norton's ground wave, each antenna reading it through its pattern); low wires only (up to 0.1 "
+        "wavelength); "
+        "the storm-direction model is coarse; P.372's Section 8 variant for deviations above 12 dB is not implemented; "
+        "thermal noise of losses neglected.",
+    ),
+]
+
+CSS = """
+body { font-family: system-ui, sans-serif; margin: 2em auto; max-width: 1100px; color: #1b1b1b; line-height: 1.4; }
+h1 { font-size: 1.6em; margin-bottom: 0.2em; }
+h2 { border-bottom: 2px solid #3a6; padding-bottom: 0.2em; margin-top: 1.6em; }
+table { border-collapse: collapse; margin: 0.8em 0; font-size: 0.92em; }
+th, td { border: 1px solid #bbb; padding: 0.3em 0.6em; text-align: right; }
+th { background: #eef5ee; } td.name, th.name { text-align: left; }
+tr.ref td { color: #555; font-style: italic; } td.warn { color: #b00; font-weight: bold; }
+figure { margin: 1em 0; page-break-inside: avoid; } figure svg { max-width: 100%; height: auto; }
+figcaption { font-size: 0.9em; color: #444; }
+.note { font-size: 0.9em; color: #444; } .safety li { margin-bottom: 0.4em; }
+@media print { body { margin: 0.5cm; max-width: none; } h2 { page-break-after: avoid; } }
+"""
+
+
+def _svg(fig) -> str:
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", bbox_inches="tight")
+    text = buf.getvalue()
+    return text[text.index("<svg") :]  # drop the XML prolog and doctype: the SVG sits inline in HTML
+
+
+def _e(x) -> str:
+    return html.escape(str(x))
+
+
+def _f(x, fmt="{:+.1f}") -> str:
+    x = float(x)
+    if not np.isfinite(x):
+        return "&ndash;"
+    return fmt.format(x)
+
+
+def _summary(r) -> str:
+    rows = [
+        ("Site", f"{_e(r.site['name'])}, {r.site['latitude_deg']:.3f}&deg;, {r.site['longitude_deg']:.3f}&deg;"),
+        ("Ground", _e(ground_text(r.site))),
+        ("Band", f"{r.freq_hz / 1e6:g} MHz, {r.bandwidth_hz:g} Hz bandwidth"),
+        ("Months", ", ".join(str(m) for m in r.months)),
+        ("UTC hours", ", ".join(f"{h:g}" for h in r.utc_hours)),
+        (
+            "Receiver",
+            f"noise figure {r.receiver['noise_figure_db']:.1f} dB; chain noise figure "
+            f"{r.receiver.get('chain_noise_figure_db', r.receiver['noise_figure_db']):.1f} dB; "
+            f"floor {r.receiver['noise_floor_dbm']:.1f} dBm",
+        ),
+        ("Reference antenna", _e(r.reference.name)),
+    ]
+    out = ["<table>"] + [f"<tr><th class='name'>{k}</th><td class='name'>{v}</td></tr>" for k, v in rows] + ["</table>"]
+    out.append(
+        "<table><tr><th class='name'>Noise component (P.372 reference monopole)</th><th>Fa min (dB)</th>"
+        "<th>Fa max (dB)</th><th>upper decile (dB)</th><th>lower decile (dB)</th></tr>"
+    )
+    for name, c in r.noise.components.items():
+        fa = c["fa_db"][np.isfinite(c["fa_db"])]
+        lo, hi = (fa.min(), fa.max()) if fa.size else (np.nan, np.nan)
+        out.append(
+            f"<tr><td class='name'>{_e(name)}</td><td>{_f(lo, '{:.1f}')}</td><td>{_f(hi, '{:.1f}')}</td>"
+            f"<td>{_f(np.nanmean(c['du_db']), '{:.1f}')}</td><td>{_f(np.nanmean(c['dl_db']), '{:.1f}')}</td></tr>"
+        )
+    tot = r.noise.total_fa_db
+    out.append(
+        f"<tr><td class='name'><b>total (P.372 Section 8)</b></td><td>{_f(np.min(tot), '{:.1f}')}</td>"
+        f"<td>{_f(np.max(tot), '{:.1f}')}</td><td>{_f(np.mean(r.noise.total_du_db), '{:.1f}')}</td>"
+        f"<td>{_f(np.mean(r.noise.total_dl_db), '{:.1f}')}</td></tr></table>"
+    )
+    tg = [
+        "<table><tr><th class='name'>Target</th><th>weight</th><th>bearing (deg)</th><th>elevations (deg)</th>"
+        "<th>distance (km)</th></tr>"
+    ]
+    for t in r.targets:
+        dist = "&ndash;" if t["distance_km"] is None else f"{t['distance_km']:.0f} ({t['hops'][0]}-{t['hops'][1]} hops)"
+        tg.append(
+            f"<tr><td class='name'>{_e(t['name'])}</td><td>{t['weight']:.2f}</td><td>{t['bearing_deg']:.0f}</td>"
+            f"<td>{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}</td><td>{dist}</td></tr>"
+        )
+    tg.append("</table>")
+    return "\n".join(out + tg)
+
+
+def _ranking(r) -> str:
+    """One table per target (its own ranking, best first) and a line naming the best with its margin."""
+    out = []
+    for i, (t, tr) in enumerate(zip(r.targets, r.target_results)):
+        hours = ", ".join(f"{h:g}" for h in t["utc_hours"])
+        out.append(
+            f"<h3>{_e(t['name'])}</h3><p class='note'>Bearing {t['bearing_deg']:.0f}&deg;, elevations "
+            f"{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}&deg;; months "
+            f"{', '.join(str(m) for m in t['months'])}; UTC hours {hours}.</p>"
+        )
+        head = [
+            "#",
+            "antenna",
+            "SNR gain median (dB)",
+            "10 %&ndash;90 % (dB)",
+            f"P(&ge;{r.beat_by_db:g} dB)",
+            "RDF (dB)",
+            "F/B (dB)",
+            "noise at receiver (dBm)",
+            "S",
+            "margin (dB)",
+            "preamp (dB)",
+        ]
+        rows = [
+            "<table"
+            + (" id='ranking'" if i == 0 else "")
+            + "><tr>"
+            + "".join(f"<th{' class=name' if h == 'antenna' else ''}>{h}</th>" for h in head)
+            + "</tr>"
+        ]
+        ranked = [("ref", r.reference)] + [(str(k + 1), r.antenna(n)) for k, n in enumerate(tr.ranking)]
+        for rank, a in ranked:
+            noise = float(np.median(a.noise_dbm))
+            margin = float(np.min(a.margin_db))
+            pre = (
+                "&ndash;"
+                if not a.receiver_limited
+                else ("none" if np.any(np.isnan(a.preamp_gain_needed_db)) else f"{np.max(a.preamp_gain_needed_db):.0f}")
+            )
+            ref = a is r.reference
+            cells = [
+                rank,
+                f"<td class='name'>{_e(a.name)}</td>",
+                "0" if ref else _f(a.snr_gain_median_db[i]),
+                "&ndash;" if ref else f"{_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])}",
+                "&ndash;" if ref else f"{100 * a.probability_beats[i]:.0f} %",
+                _f(a.rdf_db[i]),
+                _f(np.clip(a.front_to_back_db[i], -99, 99)),
+                _f(noise, "{:.1f}"),
+                _e(s_units(noise)),
+            ]
+            row = [f"<td>{c}</td>" if not str(c).startswith("<td") else c for c in cells]
+            row.append(f"<td class='warn'>{margin:.1f} !</td>" if a.receiver_limited else f"<td>{margin:.1f}</td>")
+            row.append(f"<td>{pre}</td>")
+            rows.append(f"<tr{' class=ref' if ref else ''}>" + "".join(row) + "</tr>")
+        rows.append("</table>")
+        out += rows
+        best = r.antenna(tr.best)
+        if best.snr_gain_median_db[i] > 0:
+            out.append(
+                f"<p><b>Best toward {_e(t['name'])}: {_e(tr.best)}</b>, "
+                f"{best.snr_gain_median_db[i]:+.1f} dB over {_e(r.reference.name)} (median; "
+                f"{best.snr_gain_p10_db[i]:+.1f} to {best.snr_gain_p90_db[i]:+.1f} dB), "
+                f"{tr.margin_db:.1f} dB ahead of {_e(tr.runner_up)}.</p>"
+            )
+        else:
+            out.append(
+                f"<p><b>Toward {_e(t['name'])} no candidate beats {_e(r.reference.name)}</b> "
+                f"(best: {_e(tr.best)}, {best.snr_gain_median_db[i]:+.1f} dB).</p>"
+            )
+    out.append(
+        "<p class='note'>SNR gain over the reference antenna toward each target with this site's noise sky and the "
+        "receiving chain, at the target's own months and hours: median, and its 10 % and 90 % points over the "
+        f"spreads counted ({_e(_spread_words(r))}); P: the chance of beating the reference by "
+        f"{r.beat_by_db:g} dB or more. RDF on the trade's scale (over the gain averaged over the whole sphere). "
+        "Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the worst hour; "
+        "'!' marks an antenna limited by receiver noise; preamp: gain that would reach the target.</p>"
+    )
+    if r.warnings:
+        out.append("<ul>" + "".join(f"<li>{_e(wn)}</li>" for wn in r.warnings) + "</ul>")
+    return "\n".join(out)
+
+
+def _spread_words(r) -> str:
+    from snrgain.outputs.output import spread_note
+
+    return spread_note(r)
+
+
+def _plan(r) -> str:
+    from snrgain.outputs.messages import PLAN_WORTH, plan_not_best_text
+    from snrgain.outputs.output import also_build
+
+    p = r.plan
+    if not p.antennas:
+        return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
+    out = [
+        f"<p>Build {len(p.antennas)}, worth <b>{p.gain_db:+.1f} dB</b> over {_e(r.reference.name)} alone "
+        f"({PLAN_WORTH}), in this order:</p><ol>"
+    ]
+
+    out += [
+        f"<li>{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
+        for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
+    ]
+    out.append(
+        "</ol><table><tr><th class='name'>target</th><th class='name'>served by</th>"
+        "<th class='name'>UTC hours</th><th>SNR gain (dB)</th></tr>"
+    )
+    for t, rows in sorted(p.by_target.items()):
+        for s in rows:
+            out.append(
+                f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td><td class='name'>{_e(s.antenna)}</td>"
+                f"<td class='name'>{', '.join(f'{h:g}' for h in s.utc_hours)}</td>"
+                f"<td>{_f(s.snr_gain_db)}</td></tr>"
+            )
+    out.append("</table>")
+    out += [f"<p>{_e(plan_not_best_text(r.targets[t]['name'], why))}</p>" for t, why in sorted(p.not_best.items())]
+    return "\n".join(out)
+
+
+def _build(r) -> str:
+    from snrgain.outputs.output import build_lines
+
+    items = "".join(f"<li><b>{_e(name)}</b>: {_e(text)}</li>" for name, text in build_lines(r))
+    return (
+        "<p class='note'>Resistors: the nearest E12 value (IEC 60063) beside the computed one; turns ratio: "
+        f"antenna side over coax side.</p><ul>{items}</ul>"
+    )
+
+
+def figure_list(r) -> list[tuple[str, object, str]]:
+    """(title, figure, caption) for every figure of the report."""
+    figs = []
+    for i, t in enumerate(r.targets):
+        figs.append(
+            (
+                f"Azimuth pattern toward {t['name']}",
+                plots.azimuth_pattern(r, target_index=i),
+                "Gain of each antenna at the target's elevation; arrows mark targets, crosses local noise sources.",
+            )
+        )
+        figs.append(
+            (
+                f"Elevation pattern toward {t['name']}",
+                plots.elevation_pattern(r, target_index=i),
+                "Gain against elevation toward the target's bearing; the shaded band is where its signals arrive.",
+            )
+        )
+    hour_index = len(r.utc_hours) // 2
+    figs.append(
+        (
+            "Noise sky",
+            plots.noise_sky(r, hour_index=hour_index),
+            f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC, month {r.months[0]}.",
+        )
+    )
+    figs.append(
+        (
+            "SNR gain over the hours",
+            plots.snr_over_hours(r),
+            "Per target, mean over its months; bands show atmospheric noise at its P.372 deciles where included; "
+            "gaps where a target is not listened for.",
+        )
+    )
+    figs.append(
+        (
+            "Ranking",
+            plots.ranking_chart(r),
+            "Median SNR gain per target with its 10-90 % band; RDF per target; margin of external noise.",
+        )
+    )
+    if plots.has_site_plan(r):
+        figs.append(("Site plan", plots.site_plan(r), "The lot and the antennas to scale."))
+    return figs
+
+
+def render(results, *, title: str | None = None) -> str:
+    """The report as one HTML document (a string)."""
+    r = results
+    title = title or f"snrgain report: {r.site['name']}"
+    parts = [
+        f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{_e(title)}</title>",
+        f"<style>{CSS}</style></head><body>",
+        f"<h1>{_e(title)}</h1>",
+        f"<p class='note'>Scenario {_e(r.source)}; made {datetime.now(UTC):%Y-%m-%d %H:%M} UTC; "
+        f"sky resolution HEALPix nside {r.nside}.</p>",
+        "<h2 id='summary'>Scenario</h2>",
+        _summary(r),
+        "<h2 id='ranked'>The best antenna for each target</h2>",
+        _ranking(r),
+        "<h2 id='plan'>Station plan</h2>",
+        _plan(r),
+        "<h2 id='build'>Build sheet</h2>",
+        _build(r),
+        "<h2 id='figures'>Figures</h2>",
+    ]
+    for i, (name, fig, caption) in enumerate(figure_list(r)):
+        parts.append(
+            f"<figure id='figure-{i + 1}'>{_svg(fig)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
+            "</figcaption></figure>"
+        )
+    parts.append("<h2 id='models'>Models, sources and limits</h2><table>")
+    parts += [f"<tr><th class='name'>{_e(k)}</th><td class='name'>{_e(v)}</td></tr>" for k, v in MODELS]
+    parts.append("</table>")
+    parts.append("<h2 id='safety'>Safety when you build</h2><ul class='safety'>")
+    parts += [f"<li>{_e(s)}</li>" for s in SAFETY]
+    parts.append("</ul></body></html>\n")
+    return "\n".join(parts)

@@ -1,0 +1,318 @@
+"""The receiving chain from the antenna terminals to the receiver.
+
+Stages, in order: matching transformer (a loss), feed line (its matched loss
+at the frequency), an optional preamplifier at the antenna end or at the
+receiver end, the receiver (noise figure, or a measured noise floor).  Every
+passive stage is at T0 = 290 K, so a loss factor L has noise factor L and
+gain 1/L.  The cascade follows H. T. Friis, "Noise figures of radio
+receivers", Proc. IRE 32(7), 419 (1944):
+
+    F = F1 + (F2 - 1) / G1 + (F3 - 1) / (G1 G2) + ...,
+
+and the chain adds T_chain = T0 (F - 1) referred to the antenna terminals.
+The system noise factor of Recommendation ITU-R P.372, Section 2,
+f = fa + (fc - 1) + lc (ft - 1) + lc lt (fr - 1), is the same sum written
+from the antenna's side with external noise fa (see :func:`system_noise_factor`).
+
+Cable losses: matched loss per 100 ft modelled as k1 sqrt(f_MHz) + k2 f_MHz
+(conductor and dielectric terms), with k1, k2 set from typical attenuation
+of the generic cable types at 1 and 10 MHz: values of the kind amateur
+handbooks tabulate, recalled and not verified against any datasheet, so
+snrgain's own assumption (give a measured or datasheet loss where it
+matters).  Or from the cable's
+geometry: :func:`coax_loss_from_geometry` (skin-effect conductor loss plus
+dielectric loss, textbook forms).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from noisemodels.p372 import T0_K
+from snrgain.physics.ground import C_M_PER_S, MU0_H_PER_M
+from snrgain.units import FT_PER_M
+
+
+@dataclass(frozen=True)
+class Cable:
+    """A coaxial cable type: impedance and loss coefficients (dB per 100 ft = k1 sqrt(f) + k2 f, f in MHz)."""
+
+    name: str
+    impedance_ohm: float
+    k1: float
+    k2: float
+    velocity_factor: float
+
+    def loss_db_per_100ft(self, freq_hz):
+        f = np.asarray(freq_hz, dtype=float) / 1e6
+        return self.k1 * np.sqrt(f) + self.k2 * f
+
+    def loss_db(self, freq_hz, length_m):
+        return self.loss_db_per_100ft(freq_hz) * length_m * FT_PER_M / 100.0
+
+
+def _two_point(name, z, loss_1mhz, loss_10mhz, vf):
+    # Solve k1 + k2 = L1 and k1 sqrt(10) + 10 k2 = L10 for the two coefficients.
+    a = np.array([[1.0, 1.0], [np.sqrt(10.0), 10.0]])
+    k1, k2 = np.linalg.solve(a, [loss_1mhz, loss_10mhz])
+    return Cable(name, z, float(k1), float(k2), vf)
+
+
+CABLES: dict[str, Cable] = {
+    # generic type: impedance, typical matched loss dB/100 ft at 1 MHz and 10 MHz, velocity factor (recalled, not
+    # verified against datasheets: snrgain's assumption)
+    "RG-58": _two_point("RG-58", 50, 0.33, 1.2, 0.66),
+    "RG-8X": _two_point("RG-8X", 50, 0.28, 1.0, 0.78),
+    "RG-213": _two_point("RG-213", 50, 0.16, 0.6, 0.66),
+    "RG-59": _two_point("RG-59", 75, 0.33, 1.1, 0.66),
+    "RG-6": _two_point("RG-6", 75, 0.20, 0.6, 0.83),
+    "RG-11": _two_point("RG-11", 75, 0.13, 0.4, 0.83),
+}
+
+
+def cable_by_name(name: str) -> Cable:
+    try:
+        return CABLES[name]
+    except KeyError:
+        valid = ", ".join(repr(k) for k in CABLES)
+        raise ValueError(f"cable must be one of {valid}, or give the feed line's loss; got {name!r}") from None
+
+
+def coax_loss_from_geometry(
+    freq_hz,
+    *,
+    inner_diameter_m,
+    dielectric_diameter_m,
+    permittivity,
+    loss_tangent=2e-4,
+    conductivity_s_per_m=5.8e7,
+    shield_factor=1.5,
+):
+    """Matched loss of a coaxial line from its geometry [dB/m], and its Z0 [ohm].
+
+    Conductor loss alpha_c = R' / (2 Z0), R' = R_s (1/(pi d) + k_s/(pi D)), R_s = sqrt(pi f mu0 / sigma),
+    the shield's braid raising its resistance by k_s; dielectric loss alpha_d = pi f sqrt(eps_r) tan(delta) / c;
+    Z0 = (60 / sqrt(eps_r)) ln(D/d).  Textbook forms (e.g. Ramo, Whinnery and Van Duzer, Section 5.11).
+    """
+    f = np.asarray(freq_hz, dtype=float)
+    d, big_d = inner_diameter_m, dielectric_diameter_m
+    if not big_d > d > 0:
+        raise ValueError("the dielectric diameter must exceed the inner conductor's")
+    z0 = 60.0 / np.sqrt(permittivity) * np.log(big_d / d)
+    rs = np.sqrt(np.pi * f * MU0_H_PER_M / conductivity_s_per_m)
+    r = rs * (1 / (np.pi * d) + shield_factor / (np.pi * big_d))
+    alpha = r / (2 * z0) + np.pi * f * np.sqrt(permittivity) * loss_tangent / C_M_PER_S
+    return alpha * 20 / np.log(10), z0
+
+
+@dataclass(frozen=True)
+class Stage:
+    """One stage of the chain: power gain (linear) and noise factor (linear)."""
+
+    name: str
+    gain: float
+    noise_factor: float
+
+
+def passive(name: str, loss_db: float) -> Stage:
+    """A matched passive loss at T0: gain 1/L, noise factor L."""
+    if loss_db < 0:
+        raise ValueError(f"{name}: a loss must be >= 0 dB, got {loss_db!r}")
+    lin = 10 ** (loss_db / 10)
+    return Stage(name, 1 / lin, lin)
+
+
+def amplifier(name: str, *, gain_db: float, noise_figure_db: float) -> Stage:
+    return Stage(name, 10 ** (gain_db / 10), 10 ** (noise_figure_db / 10))
+
+
+def friis(stages: list[Stage]) -> tuple[float, float]:
+    """(total noise factor, total gain), both linear, of stages in order (Friis 1944)."""
+    f_total, g_total = 1.0, 1.0
+    for i, st in enumerate(stages):
+        f_total = st.noise_factor if i == 0 else f_total + (st.noise_factor - 1) / g_total
+        g_total *= st.gain
+    return f_total, g_total
+
+
+def system_noise_factor(fa, *, lc=1.0, lt=1.0, fr):
+    """ITU-R P.372 Section 2: f = fa + (lc - 1) + lc (lt - 1) + lc lt (fr - 1), all linear.
+
+    fa external noise factor, lc antenna circuit loss, lt transmission line loss, fr receiver noise factor,
+    every loss at the reference temperature T0.
+    """
+    return fa + (lc - 1) + lc * (lt - 1) + lc * lt * (fr - 1)
+
+
+@dataclass(frozen=True)
+class Chain:
+    """The stages and what follows from them, referred to the antenna terminals."""
+
+    stages: tuple[Stage, ...]
+    preamp_index: int | None = None
+    cable: str | None = None
+    """The feed line's cable type, where the chain names one (for phasing lines cut from the same cable)."""
+
+    @property
+    def noise_factor(self) -> float:
+        return friis(list(self.stages))[0]
+
+    @property
+    def gain(self) -> float:
+        return friis(list(self.stages))[1]
+
+    @property
+    def temperature_k(self) -> float:
+        """Noise added by the chain referred to the antenna terminals, T0 (F - 1) [K]."""
+        return T0_K * (self.noise_factor - 1)
+
+    def with_preamp_gain(self, gain_db: float) -> Chain:
+        if self.preamp_index is None:
+            raise ValueError("the chain has no preamplifier")
+        st = list(self.stages)
+        p = st[self.preamp_index]
+        st[self.preamp_index] = Stage(p.name, 10 ** (gain_db / 10), p.noise_factor)
+        return Chain(tuple(st), self.preamp_index, self.cable)
+
+    def preamp_gain_for_margin(self, antenna_temperature_k: float, margin_db: float) -> float | None:
+        """The preamplifier gain [dB] that brings T_A / (T0 F) to ``margin_db``; None if unreachable.
+
+        The margin is the external noise over the chain's floor, both at the antenna terminals.  If the
+        chain already meets it, 0 dB.  F decreases with the preamp gain toward F_before + (F_p - 1)/G_before.
+        """
+        if self.preamp_index is None:
+            raise ValueError("the chain has no preamplifier")
+        need_f = antenna_temperature_k / (T0_K * 10 ** (margin_db / 10))
+        if self.with_preamp_gain(0.0).noise_factor <= need_f:
+            return 0.0
+        before = list(self.stages[: self.preamp_index])
+        after = list(self.stages[self.preamp_index + 1 :])
+        f_b, g_b = friis(before) if before else (1.0, 1.0)
+        f_a = friis(after)[0] if after else 1.0
+        f_p = self.stages[self.preamp_index].noise_factor
+        floor = (f_b if before else f_p) + ((f_p - 1) / g_b if before else 0.0)
+        denom = g_b * (need_f - floor)
+        if denom <= 0:
+            return None
+        g_p = (f_a - 1) / denom
+        return float(max(10 * np.log10(g_p), 0.0)) if g_p > 0 else 0.0
+
+
+SUGGESTED_PREAMP_NOISE_FIGURE_DB = 3.0
+"""Noise figure of the preamplifier assumed when the chain has none and one is suggested (common practice
+for low-band receiving preamplifiers)."""
+
+
+def preamp_advice(chain: Chain, antenna_temperature_k: float, margin_db: float) -> tuple[float, str | None]:
+    """(gain [dB], position) of a preamplifier that brings the margin to ``margin_db``.
+
+    The chain's own preamplifier if it has one; else a suggested one before the receiver, or, where no gain
+    there can do it (a lossy feed line ahead), right after the transformer.  (NaN, None) if none can.
+    """
+    if chain.preamp_index is not None:
+        g = chain.preamp_gain_for_margin(antenna_temperature_k, margin_db)
+        return (np.nan, None) if g is None else (g, "as placed")
+    for position in ("receiver", "antenna"):
+        g = with_suggested_preamp(chain, position).preamp_gain_for_margin(antenna_temperature_k, margin_db)
+        if g is not None:
+            return g, position
+    return np.nan, None
+
+
+def cascade(
+    *,
+    freq_hz: float,
+    receiver_noise_figure_db: float,
+    transformer_loss_db: float = 0.0,
+    feedline_loss_db: float | None = None,
+    cable: str | None = None,
+    feedline_length_m: float | None = None,
+    preamp_gain_db: float | None = None,
+    preamp_noise_figure_db: float | None = None,
+    preamp_at_antenna: bool = False,
+) -> Chain:
+    """A receiving chain from its parts (SI and dB): the transformer's loss, a feed line (its loss, or a cable
+    type and length), an optional preamplifier (right after the transformer, or before the receiver) and the
+    receiver.  The input schema builds this at the edge (snrgain.scenario); the physics needs no schema."""
+    stages = [passive("transformer", transformer_loss_db)]
+    if feedline_loss_db is None and cable is not None and feedline_length_m is not None:
+        feedline_loss_db = float(cable_by_name(cable).loss_db(freq_hz, feedline_length_m))
+    if feedline_loss_db is not None:
+        stages.append(passive("feed line", feedline_loss_db))
+    preamp_index = None
+    if preamp_gain_db is not None:
+        amp = amplifier("preamplifier", gain_db=preamp_gain_db, noise_figure_db=preamp_noise_figure_db)
+        preamp_index = 1 if preamp_at_antenna else len(stages)
+        stages.insert(preamp_index, amp)
+    stages.append(amplifier("receiver", gain_db=0.0, noise_figure_db=receiver_noise_figure_db))
+    return Chain(tuple(stages), preamp_index, cable)
+
+
+def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
+    """The chain with a preamplifier (suggested noise figure, 0 dB gain to start) before the receiver
+    (``position="receiver"``) or right after the transformer (``"antenna"``); a chain with its own is unchanged."""
+    if chain.preamp_index is not None:
+        return chain
+    st = list(chain.stages)
+    idx = len(st) - 1 if position == "receiver" else 1
+    st.insert(idx, amplifier("suggested preamplifier", gain_db=0.0, noise_figure_db=SUGGESTED_PREAMP_NOISE_FIGURE_DB))
+    return Chain(tuple(st), idx, chain.cable)
+
+
+@dataclass(frozen=True)
+class NoiseBudget:
+    """One antenna's noise through its chain, per month and hour (arrays (months, hours)).
+
+    noise_dbm : external noise delivered to the receiver input in the bandwidth [dBm]
+    floor_dbm : the chain's own noise floor at the receiver input, k T0 b F G [dBm]
+    margin_db : noise_dbm minus floor_dbm [dB]
+    receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
+    preamp_gain_needed_db : preamplifier gain that brings the margin to the target; 0 if met, NaN if none can [dB]
+    preamp_position : "receiver", "antenna", "as placed" (see :func:`preamp_advice`), or None
+    """
+
+    noise_dbm: np.ndarray
+    floor_dbm: float
+    margin_db: np.ndarray
+    receiver_snr_loss_db: np.ndarray
+    preamp_gain_needed_db: np.ndarray
+    preamp_position: str | None
+
+
+def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, margin_target_db: float) -> NoiseBudget:
+    """The external noise against the chain's floor, and the preamplifier that would meet the margin target."""
+    from snrgain.physics.receiver import noise_floor_dbm, power_dbm
+
+    t_a = np.asarray(antenna_temperature_k, dtype=float)
+    gain_db = 10.0 * np.log10(chain.gain)
+    floor = float(noise_floor_dbm(10.0 * np.log10(chain.noise_factor), bandwidth_hz=bandwidth_hz)) + gain_db
+    with np.errstate(divide="ignore"):
+        noise = power_dbm(t_a, bandwidth_hz=bandwidth_hz) + gain_db
+        loss = 10.0 * np.log10((t_a + chain.temperature_k) / t_a)
+    advice = [preamp_advice(chain, float(t), margin_target_db) for t in t_a.ravel()]
+    needed = np.array([a[0] for a in advice], dtype=float).reshape(t_a.shape)
+    where = sorted({a[1] for a in advice if a[1]})
+    return NoiseBudget(noise, floor, noise - floor, loss, needed, where[-1] if where else None)
+
+
+def describe(chain: Chain, *, bandwidth_hz: float) -> dict:
+    """The chain for output: noise figure, gain, floor at the receiver input, stages (dB, SI in the keys)."""
+    from snrgain.physics.receiver import noise_floor_dbm
+
+    nf_db = float(10 * np.log10(chain.noise_factor))
+    gain_db = float(10 * np.log10(chain.gain))
+    return {
+        "noise_figure_db": nf_db,
+        "gain_db": gain_db,
+        "noise_floor_dbm": float(noise_floor_dbm(nf_db, bandwidth_hz=bandwidth_hz)) + gain_db,
+        "stages": [
+            {
+                "name": st.name,
+                "gain_db": float(10 * np.log10(st.gain)),
+                "noise_figure_db": float(10 * np.log10(st.noise_factor)),
+            }
+            for st in chain.stages
+        ],
+    }

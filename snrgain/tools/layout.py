@@ -1,0 +1,484 @@
+"""Where on the lot: the positions, bearings and lengths that give the placeable candidates their best SNR.
+
+A candidate with a ``place`` table (``place = { bearing = ["20 deg", "70 deg"],
+length = ["150 m", "300 m"] }``) may stand anywhere on the lot (``[site]
+lot``) outside the keep-out areas and clear of the transmitting vertical
+(``[site] tx_clearance``), at least 10 m from any other wire (common
+practice: closer, wires couple), with its bearing
+and length inside the ranges given (fixed where none is given).
+
+Its worth is its nominal SNR gain over the reference toward the target
+nearest its bearing range's middle (the scenario's months and hours for that
+target, no spreads), with the placed noise sources heard where it stands
+(snrgain.model.placed).  Only the placed sources depend on the position, so each
+(bearing, length) pair costs one pattern and one set of sky temperatures,
+and every position after that only its pickup of the placed sources.
+
+The search (deterministic, so reproducible):
+
+1. a grid per candidate: bearings every 5 deg or less over the range, five
+   lengths over the range, feed points on a square grid over the lot (about
+   150 inside it); the feasible designs kept, the best few per candidate;
+2. the best combination of those that do not cross one another;
+3. a joint local refinement from it (scipy.optimize.minimize, Nelder-Mead, on
+   the continuous values with a penalty for any violation), kept only if it
+   is feasible and better.
+
+The next-best combinations are reported too, so a builder can weigh a
+layout that is nearly as good and easier to build.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from snrgain.decide.lot import footprint, polygon, tx_clearance_m
+
+BEARING_STEP_RAD = float(np.radians(5.0))
+LENGTHS_PER_RANGE = 5
+POSITIONS_ON_LOT = 150
+TOP_PER_CANDIDATE = 40
+MAX_COMBINATIONS = 100_000
+EDGE_MARGIN_M = 1.0
+"""Placed antennas keep this far inside the lot's outline [m]."""
+WIRE_SEPARATION_M = 10.0
+"""Placed wires keep at least this far from other wires (common practice: closer, they couple)."""
+
+
+@dataclass(frozen=True)
+class Design:
+    """One candidate's place: feed point [m east, m north], bearing [rad] (None: the family has none), wire length
+    [m] (None: not a wire)."""
+
+    name: str
+    east_m: float
+    north_m: float
+    bearing_rad: float | None
+    length_m: float | None
+
+
+@dataclass(frozen=True)
+class Layout:
+    """A set of designs, one per placeable candidate, and the SNR gain each reaches toward its target [dB]."""
+
+    designs: tuple[Design, ...]
+    snr_gain_db: tuple[float, ...]
+    targets: tuple[str, ...]
+
+    @property
+    def worth_db(self) -> float:
+        """The layout's worth [dB]: the mean over its candidates of each one's SNR gain toward its target as a power
+        ratio (as the station plan weighs targets; dB are never added or averaged over targets)."""
+        return float(10 * np.log10(np.mean(10 ** (np.asarray(self.snr_gain_db) / 10))))
+
+
+class Problem:
+    """A scenario's layout problem: the lot, the keep-outs, the placeable candidates and the shared sky."""
+
+    def __init__(self, sc, data: dict, *, base_dir=None):
+        from snrgain.model.pipeline import nearest_target
+
+        if not sc.placeable:
+            raise ValueError("layout: no candidate has a place table (place = { bearing = [...], length = [...] })")
+        if sc.site.lot_m is None:
+            raise ValueError("site.lot: layout needs the lot's outline to place antennas in")
+        self.sc = sc
+        self.data = data
+        self.base_dir = base_dir
+        outline = polygon(sc.site.lot_m, "site.lot")
+        inner = outline.buffer(
+            -EDGE_MARGIN_M
+        )  # a metre inside the boundary: fences, and rounding of the written values
+        self.lot = inner if not inner.is_empty and inner.geom_type == "Polygon" else outline
+        self.keep = [polygon(pts, f"site.keep_out {n!r}") for n, pts in sc.site.keep_out]
+        self.names = [n for n in (a.name for a in sc.candidates) if n in sc.placeable]
+        self.places = [sc.placeable[n] for n in self.names]
+        self.index = [[a.name for a in sc.candidates].index(n) for n in self.names]
+        self.base = [sc.candidates[k] for k in self.index]
+        minx, miny, maxx, maxy = outline.bounds
+        self.extent_m = float(np.hypot(maxx - minx, maxy - miny))
+        for n, pl in zip(self.names, self.places):
+            if pl.length is not None and pl.length[0] > self.extent_m:
+                raise ValueError(
+                    f"candidate {n!r}.place.length: the shortest length, {pl.length[0]:g} m, cannot fit a lot "
+                    f"{self.extent_m:.0f} m across at its widest"
+                )
+        from snrgain.model import pipeline
+
+        sc = self.sc = pipeline.resolve_sources(sc)
+        self.grid = pipeline.sky_grid(sc)
+        self.skies = pipeline.build_sky(sc, self.grid)
+        self.ref = pipeline.products(sc, [sc.reference], self.grid, self.skies)
+        self.placed = [s for s in sc.noise.local if s.position_m is not None]
+        self.ref_m = sc.reference.params.position or (0.0, 0.0)
+        self.target = []
+        for pl, ant in zip(self.places, self.base):
+            b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
+            self.target.append(nearest_target(sc, b))
+        self.tx = None
+        if sc.reference.resonant_tx:
+            from shapely.geometry import Point
+
+            self.tx = Point(*self.ref_m)
+        self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
+        fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in self.names and a.long_wire]
+        self.fixed_names = [n for n, w in fixed if w is not None]
+        self.fixed_wires = [w for _, w in fixed if w is not None]
+        self._sky: dict[tuple, tuple] = {}
+
+    # -- one candidate ----------------------------------------------------------------------------------------
+
+    def antenna(self, i: int, bearing_rad: float, length_m: float | None):
+        """The i-th placeable candidate built with this bearing and length (SI), at no position."""
+        from snrgain.scenario import antenna_from_table
+
+        name = self.names[i]
+        spec = dict(next(c for c in self.data.get("candidate", []) if c.get("name") == name))
+        for key in ("place", "chain", "position"):
+            spec.pop(key, None)
+        if bearing_rad is not None:
+            spec["bearing"] = f"{np.degrees(bearing_rad):.6f} deg"
+        if length_m is not None:
+            spec["length"] = f"{length_m:.6f} m"
+        site_ground = self.data.get("site", {}).get("ground", "moist loam")
+        return antenna_from_table(
+            spec, f"candidate {name!r}", site_ground=site_ground, base_dir=self.base_dir, freq_hz=self.sc.freq_hz
+        )
+
+    def design_products(self, i: int, bearing_rad: float, length_m: float | None):
+        """(antenna, products of [reference, antenna]) for a (bearing, length) of candidate i, made once through the
+        pipeline's stages; other positions reuse its gains (a placed antenna's far field does not move)."""
+        from snrgain.model import pipeline
+
+        key = (
+            i,
+            None if bearing_rad is None else round(float(bearing_rad), 9),
+            None if length_m is None else round(float(length_m), 6),
+        )
+        hit = self._sky.get(key)
+        if hit is None:
+            ant = self.antenna(i, bearing_rad, length_m)
+            sub = self.sub(i, ant)
+            hit = self._sky[key] = (ant, pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref))
+        return hit
+
+    def sub(self, i: int, ant):
+        """The scenario holding the reference and candidate i as ``ant`` (its own chain)."""
+        k = self.index[i]
+        return replace(self.sc, candidates=(ant,), chains=(self.sc.chains[0], self.sc.chains[1 + k]))
+
+    def snr_gain_db(self, d: Design, i: int) -> float:
+        """Candidate i's SNR gain [dB] over the reference toward its target, the design standing at its place: the
+        ranking's statistic (the median over the target's hours), without the spreads, through the same stages."""
+        from snrgain.model import pipeline
+
+        ant0, known = self.design_products(i, d.bearing_rad, d.length_m)
+        ant = ant0.at((d.east_m, d.north_m))
+        sub = self.sub(i, ant)
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known) if self.placed else known
+        return float(pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1, self.target[i]])
+
+    # -- geometry -----------------------------------------------------------------------------------------------
+
+    def footprint(self, d: Design):
+        from shapely.geometry import LineString, Point
+
+        if d.length_m is None:
+            return Point(d.east_m, d.north_m)
+        end = (d.east_m + d.length_m * np.sin(d.bearing_rad), d.north_m + d.length_m * np.cos(d.bearing_rad))
+        return LineString([(d.east_m, d.north_m), end])
+
+    def violations(self, d: Design, others=()) -> dict[str, float]:
+        """How far a design breaks each rule [m], by the rule and what it names: outside the lot, inside a keep-out
+        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing); only the
+        rules it breaks."""
+        shape = self.footprint(d)
+        out = {}
+        v = (
+            shape.difference(self.lot).length
+            if shape.length > 0
+            else (0.0 if self.lot.covers(shape) else 1.0 + self.lot.exterior.distance(shape))
+        )
+        out["the lot's outline"] = v
+        for (name, _), k in zip(self.sc.site.keep_out, self.keep):
+            inter = shape.intersection(k)
+            out[f"keep-out area {name!r}"] = inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
+        if self.tx is not None:
+            out[f"{self.clearance:.0f} m from the transmitting vertical"] = max(
+                0.0, self.clearance - shape.distance(self.tx)
+            )
+        wires = list(zip(self.fixed_names, self.fixed_wires)) + [(o.name, self.footprint(o)) for o in others]
+        for name, w in wires:
+            if shape.length > 0 and w.length > 0:
+                out[f"{WIRE_SEPARATION_M:g} m from the wire {name!r}"] = (
+                    10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
+                )
+        return {k: float(x) for k, x in out.items() if x > 0}
+
+    def violation_m(self, d: Design, others=()) -> float:
+        """How far a design breaks the rules [m] (the sum of :meth:`violations`); 0 when it keeps them all."""
+        return float(sum(self.violations(d, others).values()))
+
+    def feasible(self, i: int) -> list[Design]:
+        """Candidate i's designs on the grid that keep every rule, from geometry alone (no SNR worked out); a
+        ValueError naming the rules that bind, most binding first, when there is none."""
+        pairs, points = self.grid_designs(i)
+        designs = [Design(self.names[i], e, n, b, ln) for b, ln in pairs for e, n in points]
+        found, blocked = [], {}
+        for d in designs:
+            broken = self.violations(d)
+            if not broken:
+                found.append(d)
+            for rule in broken:
+                blocked[rule] = blocked.get(rule, 0) + 1
+        if not found:
+            ranked = sorted(blocked.items(), key=lambda kv: -kv[1])
+            rules = "; ".join(f"{rule} ({100 * n / len(designs):.0f} %)" for rule, n in ranked[:4])
+            raise ValueError(
+                f"candidate {self.names[i]!r}: none of the {len(designs)} places tried on the lot keeps every rule "
+                f"with these bearing and length ranges; the share of places each rule rules out: {rules}. Loosen the "
+                "rule that binds most (move or shorten that wire, narrow the ranges, or widen the lot)"
+            )
+        return found
+
+    # -- search -----------------------------------------------------------------------------------------------
+
+    def grid_designs(self, i: int):
+        """Every (bearing, length) of candidate i's grid, and the feed points on the lot."""
+        pl, ant = self.places[i], self.base[i]
+        if pl.bearing is not None:
+            lo, hi = pl.bearing
+            span = np.mod(hi - lo, 2 * np.pi) or 0.0
+            n = max(2, int(np.ceil(span / BEARING_STEP_RAD)) + 1) if span > 0 else 1
+            bearings = [float(np.mod(lo + span * t, 2 * np.pi)) for t in np.linspace(0, 1, n)]
+        else:
+            bearings = [_bearing_of(ant)]
+        if ant.long_wire:
+            lengths = (
+                [float(x) for x in np.linspace(*pl.length, LENGTHS_PER_RANGE)]
+                if pl.length is not None
+                else [ant.length_m]
+            )
+        else:
+            lengths = [None]
+        return [(b, ln) for b in bearings for ln in lengths], self.lot_points()
+
+    def lot_points(self) -> list[tuple[float, float]]:
+        """Feed points on a square grid over the lot, about POSITIONS_ON_LOT of them inside it."""
+        from shapely.geometry import Point
+
+        minx, miny, maxx, maxy = self.lot.bounds
+        step = max(np.sqrt(self.lot.area / POSITIONS_ON_LOT), 0.5)
+        xs = np.arange(minx + step / 2, maxx, step)
+        ys = np.arange(miny + step / 2, maxy, step)
+        return [(float(x), float(y)) for x in xs for y in ys if self.lot.covers(Point(x, y))]
+
+    def search(self, *, progress=None, keep: int = 3) -> list[Layout]:
+        """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
+        per = []
+        feasible = [self.feasible(i) for i in range(len(self.names))]  # geometry first: a dead end says so at once
+        total = sum(len(f) for f in feasible)
+        done = 0
+        for i, designs in enumerate(feasible):
+            found = []
+            for d in designs:
+                found.append((self.snr_gain_db(d, i), d))
+                done += 1
+                if progress is not None and done % 50 == 0:
+                    progress(done, total)
+            if progress is not None:
+                progress(done, total)
+            found.sort(key=lambda x: -x[0])
+            top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(feasible))))
+            per.append(_distinct(found, min(TOP_PER_CANDIDATE, top)))
+        # Every combination of the kept designs, best total first, until enough keep clear of one another.
+        import itertools
+
+        ranked = sorted(
+            itertools.product(*[range(len(p)) for p in per]),
+            key=lambda ix: -Layout((), tuple(per[i][j][0] for i, j in enumerate(ix)), ()).worth_db,
+        )
+        chosen = []
+        for ix in ranked:
+            designs = [per[i][j][1] for i, j in enumerate(ix)]
+            if all(self.violation_m(d, designs[:j]) == 0.0 for j, d in enumerate(designs)):
+                chosen.append(designs)
+                if len(chosen) == keep:
+                    break
+        if not chosen:
+            raise ValueError(
+                f"layout: the placeable wires cannot all be placed without crossing or coming within "
+                f"{WIRE_SEPARATION_M:g} m of one another; widen the ranges or the lot"
+            )
+        layouts = [self._layout(designs) for designs in chosen]
+        layouts[0] = self.refine(layouts[0])
+        layouts.sort(key=lambda lay: -lay.worth_db)
+        return layouts
+
+    def _layout(self, designs) -> Layout:
+        return Layout(
+            tuple(designs),
+            tuple(self.snr_gain_db(d, i) for i, d in enumerate(designs)),
+            tuple(self.sc.targets[self.target[i]].name for i in range(len(designs))),
+        )
+
+    def refine(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
+        """Joint Nelder-Mead from ``start`` over positions, bearings and lengths (within their ranges), with a
+        penalty of 3 dB per metre of violation; the start is kept unless a feasible, better layout is found."""
+        from scipy.optimize import minimize
+
+        x0, bounds = [], []
+        for i, d in enumerate(start.designs):
+            pl = self.places[i]
+            x0 += [d.east_m, d.north_m]
+            bounds += [self.lot.bounds[0::2], self.lot.bounds[1::2]]
+            if pl.bearing is not None:
+                x0.append(d.bearing_rad)
+                lo, hi = pl.bearing
+                bounds.append((lo, lo + (np.mod(hi - lo, 2 * np.pi) or 0.0)))
+            if pl.length is not None and d.length_m is not None:
+                x0.append(d.length_m)
+                bounds.append(tuple(pl.length))
+
+        def designs_of(x):
+            out, j = [], 0
+            for i, d in enumerate(start.designs):
+                pl = self.places[i]
+                e, n = x[j], x[j + 1]
+                j += 2
+                b, ln = d.bearing_rad, d.length_m
+                if pl.bearing is not None:
+                    b = float(np.mod(x[j], 2 * np.pi))
+                    j += 1
+                if pl.length is not None and d.length_m is not None:
+                    ln = float(x[j])
+                    j += 1
+                out.append(replace(d, east_m=float(e), north_m=float(n), bearing_rad=b, length_m=ln))
+            return out
+
+        def cost(x):
+            ds = designs_of(np.clip(x, [b[0] for b in bounds], [b[1] for b in bounds]))
+            v = sum(self.violation_m(d, ds[:j]) for j, d in enumerate(ds))
+            return -Layout((), tuple(self.snr_gain_db(d, i) for i, d in enumerate(ds)), ()).worth_db + 3.0 * v
+
+        res = minimize(
+            cost,
+            np.array(x0, dtype=float),
+            method="Nelder-Mead",
+            bounds=bounds,
+            options={"maxfev": max_evaluations, "xatol": 0.5, "fatol": 0.01},
+        )
+        ds = designs_of(np.clip(res.x, [b[0] for b in bounds], [b[1] for b in bounds]))
+        if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
+            cand = self._layout(ds)
+            if cand.worth_db > start.worth_db:
+                return cand
+        return start
+
+    def random_valid(self, rng, *, tries: int = 20000) -> Layout:
+        """A layout drawn at random among the valid ones (for comparison): uniform positions on the lot's box,
+        bearings and lengths in their ranges, redrawn until every rule holds."""
+        minx, miny, maxx, maxy = self.lot.bounds
+        for _ in range(tries):
+            ds = []
+            for i, ant in enumerate(self.base):
+                pl = self.places[i]
+                b = _bearing_of(ant)
+                if pl.bearing is not None:
+                    lo, hi = pl.bearing
+                    b = float(np.mod(lo + rng.uniform() * (np.mod(hi - lo, 2 * np.pi)), 2 * np.pi))
+                ln = None
+                if ant.long_wire:
+                    ln = float(rng.uniform(*pl.length)) if pl.length is not None else ant.length_m
+                ds.append(Design(self.names[i], float(rng.uniform(minx, maxx)), float(rng.uniform(miny, maxy)), b, ln))
+            if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
+                return self._layout(ds)
+        raise ValueError("layout: no valid random placement found")
+
+
+def plan_data(problem: Problem, layout: Layout) -> dict:
+    """What :func:`snrgain.outputs.plots.layout_plan` draws: the lot, keep-outs, the TX vertical and its clearance, the
+    placed sources, the fixed antennas and the layout."""
+    sc = problem.sc
+    fixed = []
+    for a in sc.candidates:
+        if a.name in problem.names:
+            continue
+        shape = footprint(a)
+        if shape is not None and hasattr(shape, "coords"):
+            fixed.append((a.name, list(shape.coords)))
+    return {
+        "site": sc.site.name,
+        "lot": list(sc.site.lot_m),
+        "keep_out": [(n, list(p)) for n, p in sc.site.keep_out],
+        "tx": None if problem.tx is None else tuple(problem.ref_m),
+        "clearance_m": problem.clearance,
+        "sources": [(s.name, s.position_m) for s in problem.placed],
+        "fixed": fixed,
+        "layout": as_dict([layout])["layouts"][0],
+    }
+
+
+def _bearing_of(antenna) -> float | None:
+    b = getattr(antenna.params, "bearing", None)
+    return None if b is None else float(b)
+
+
+def _middle(rng) -> float:
+    lo, hi = rng
+    return float(np.mod(lo + 0.5 * np.mod(hi - lo, 2 * np.pi), 2 * np.pi))
+
+
+def _distinct(found, k):
+    """The k best designs, skipping those within 10 m and 5 deg of one already taken (a layout's neighbours)."""
+    out = []
+    for v, d in found:
+        if all(
+            np.hypot(d.east_m - o.east_m, d.north_m - o.north_m) > 10.0
+            or (d.bearing_rad is not None and abs(d.bearing_rad - o.bearing_rad) > 0.09)
+            for _, o in out
+        ):
+            out.append((v, d))
+        if len(out) == k:
+            break
+    return out
+
+
+def as_dict(layouts: list[Layout]) -> dict:
+    """JSON-ready layouts (SI units in the keys, bearings in degrees)."""
+    return {
+        "layouts": [
+            {
+                "worth_db": lay.worth_db,
+                "candidates": [
+                    {
+                        "name": d.name,
+                        "position_m": [d.east_m, d.north_m],
+                        "bearing_deg": None if d.bearing_rad is None else float(np.degrees(d.bearing_rad)),
+                        "length_m": d.length_m,
+                        "target": t,
+                        "snr_gain_db": g,
+                    }
+                    for d, g, t in zip(lay.designs, lay.snr_gain_db, lay.targets)
+                ],
+            }
+            for lay in layouts
+        ]
+    }
+
+
+def with_layout(text: str, layout: Layout) -> str:
+    """The scenario text with each placed candidate's position, bearing and length written in (its place table
+    dropped); other lines are kept as written."""
+    from snrgain.tools.tomltext import rewrite_table
+
+    for d in layout.designs:
+        add = [f'position = ["{d.east_m:.1f} m", "{d.north_m:.1f} m"]   # placed by snrgain layout\n']
+        if d.bearing_rad is not None:
+            add.append(f'bearing = "{np.degrees(d.bearing_rad):.1f} deg"\n')
+        if d.length_m is not None:
+            add.append(f'length = "{d.length_m:.1f} m"\n')
+        text = rewrite_table(text, "[[candidate]]", d.name, drop={"position", "bearing", "length", "place"}, add=add)
+    return text

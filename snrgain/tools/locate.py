@@ -1,0 +1,431 @@
+"""Where is that noise coming from?  Fit local sources to noise readings.
+
+Each reading is the noise power (dBm in the bandwidth) received on a known
+antenna in a known orientation.  The model for reading i:
+
+    P_i = k b G_chain [ B t_i + sum_s S_s G_i(d_s) / (4 pi) ],
+
+with t_i the antenna's temperature for a unit diffuse background (man-made
+noise at low angles from every bearing, noisemodels.sky), B its scale, and
+for each source s a direction d_s (bearing, elevation) and strength S_s
+[K sr].  Unknowns: B, and per source bearing, log strength and (optionally)
+elevation.  They are fitted to the readings in dB by least squares with a
+robust loss (scipy.optimize.least_squares, soft-L1, 1 dB scale) from several
+starts (bearings every 30 deg); the bearing's standard uncertainty comes
+from the Jacobian at the solution (J^T J inverted, scaled by the residual
+variance).  A fit whose bearing is not constrained (uncertainty over 45 deg,
+or a singular Jacobian) is reported as failed, not as an answer.
+
+When every antenna's pattern is symmetric front to back (small loops, verticals),
+a bearing and its opposite fit equally well: the result says so (180 deg
+ambiguity).  Levels are reported as Fa on P.372's reference monopole.
+
+Each reading carries an uncertainty (``uncertainty``, per reading or for the
+file; default 2 dB, an S-meter read by eye, common practice): a reading the
+fit misses by more than that is named as an outlier, and the fit is not
+called converged without saying so.  Where the file says where the readings
+were taken (``at = [east, north]`` on the site plan) and how far the source
+is (``distance``, e.g. from a walk with a portable receiver), the source is
+written to a scenario as a placed one (``position``, with its Fa
+``measured_at`` the reading point); otherwise by its bearing.  A source of
+the same name already in the scenario is replaced, not doubled.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+from scipy.optimize import least_squares
+
+from noisemodels import p372
+from snrgain.constants import FREQ_RANGE_HZ
+from snrgain.physics.receiver import power_dbm
+from snrgain.tools.readings import read_toml
+
+MAX_BEARING_SIGMA_DEG = 45.0
+DEFAULT_READING_UNCERTAINTY_DB = 2.0
+"""How far a reading may miss the fit before it is called an outlier, unless the file says [dB] (an S-meter read by
+eye: common practice)."""
+
+EXAMPLE = """\
+# Noise readings for snrgain locate: the same noise read on known antennas.
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+ground = "moist loam"
+
+[antenna.loop]               # a small loop turned by hand between readings
+family = "small-loop"
+width = "1 m"
+loop_height = "1 m"
+height = "1.5 m"
+
+[antenna.vertical]
+family = "vertical"
+height = "18 m"
+
+[[reading]]                  # invented readings, made for this example
+antenna = "loop"
+bearing = 0                  # the loop's plane points this way for this reading
+level = "-118.8 dBm"         # or S-units: "S7"
+[[reading]]
+antenna = "loop"
+bearing = 30
+level = "-115.4 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 60
+level = "-111.9 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 90
+level = "-112.8 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 120
+level = "-115.7 dBm"
+[[reading]]
+antenna = "loop"
+bearing = 150
+level = "-122.9 dBm"
+[[reading]]
+antenna = "vertical"
+level = "-82 dBm"
+"""
+
+
+@dataclass(frozen=True)
+class NoiseReadings:
+    """A readings file: frequency [Hz], bandwidth [Hz] and the readings."""
+
+    freq_hz: float
+    bandwidth_hz: float
+    readings: list
+    at_m: tuple[float, float] | None = None
+    """Where the readings were taken on the site plan [m east, m north], if the file says."""
+    distances_m: tuple[float, ...] | None = None
+    """How far each source is from there [m], if the file says."""
+
+
+def load_readings(path: str | Path) -> NoiseReadings:
+    """Read a noise readings file (format: :data:`EXAMPLE`); ReadingsError naming the file and every problem at
+    once (items counted from 1)."""
+    from typing import Any
+
+    from pydantic import Field
+
+    from snrgain.antennas.base import SpecError, build, item_label
+    from snrgain.errors import ReadingsError
+    from snrgain.fields import Bearing, GroundField, PlanPoint, PowerDbm, StrictModel, decibels, quantity
+    from snrgain.tools.readings import validate
+
+    class ReadingEntry(StrictModel):
+        antenna: str
+        bearing: Bearing | None = None
+        level: PowerDbm
+        uncertainty: decibels(0.01, 30.0) | None = None
+
+    class ReadingsFile(StrictModel):
+        frequency: quantity("frequency", ge=FREQ_RANGE_HZ[0], le=FREQ_RANGE_HZ[1])
+        bandwidth: quantity("frequency", ge=10.0, le=100e3)
+        ground: GroundField = "moist loam"
+        uncertainty: decibels(0.01, 30.0) = DEFAULT_READING_UNCERTAINTY_DB
+        at: PlanPoint | None = None
+        distance: quantity("length", gt=0.0, le=50e3) | list[quantity("length", gt=0.0, le=50e3)] | None = None
+        antenna: dict[str, dict[str, Any]] = Field(min_length=1, max_length=64)
+        reading: list[ReadingEntry] = Field(min_length=1, max_length=1000)
+
+    data = read_toml(path)
+    problems, readings = [], []
+    try:
+        rf = validate(ReadingsFile, data, path)
+    except ReadingsError as exc:  # go on to the cross-checks: every problem at once
+        problems, rf = list(exc.problems), None
+    tables = data.get("antenna") if isinstance(data.get("antenna"), dict) else {}
+    raw_readings = data.get("reading") if isinstance(data.get("reading"), list) else []
+    for i, r in enumerate(raw_readings):
+        name = r.get("antenna") if isinstance(r, dict) else None
+        if isinstance(name, str) and name not in tables:
+            problems.append(
+                (
+                    f"{item_label('reading', i, None)}.antenna",
+                    f"{name!r} is not one of the [antenna.*] tables {sorted(tables)}",
+                )
+            )
+    if rf is None:
+        raise ReadingsError(str(path), problems)
+    for i, r in enumerate(rf.reading):
+        if r.antenna not in rf.antenna:
+            continue
+        spec = {"ground": data.get("ground", "moist loam"), **rf.antenna[r.antenna]}
+        if r.bearing is not None:
+            spec["bearing"] = data["reading"][i]["bearing"]
+        try:
+            ant = build(spec, f"antenna.{r.antenna}", freq_hz=rf.frequency)
+        except SpecError as exc:
+            problems.extend(exc.problems)
+            continue
+        label = r.antenna + (f" {data['reading'][i]['bearing']}" if r.bearing is not None else "")
+        unc = r.uncertainty if r.uncertainty is not None else rf.uncertainty
+        readings.append(Reading(ant, r.level, label, unc))
+    if rf.distance is not None and rf.at is None:
+        problems.append(("distance", "a distance places the source from where the readings were taken: give at too"))
+    if problems:
+        raise ReadingsError(str(path), sorted(set(problems), key=problems.index))
+    distances = None if rf.distance is None else tuple(rf.distance if isinstance(rf.distance, list) else [rf.distance])
+    return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances)
+
+
+class LocateError(ValueError):
+    """Readings that cannot constrain what is asked."""
+
+
+@dataclass(frozen=True)
+class Reading:
+    antenna: object
+    """An Antenna (snrgain.antennas) as oriented for this reading."""
+    level_dbm: float
+    label: str = ""
+    uncertainty_db: float = DEFAULT_READING_UNCERTAINTY_DB
+    """How far the fit may miss this reading before it is an outlier [dB]."""
+
+
+@dataclass
+class FittedSource:
+    bearing_deg: float
+    bearing_sigma_deg: float
+    elevation_deg: float
+    fa_db: float
+    """Level on P.372's reference monopole [dB above kT0b]."""
+    ambiguous_180: bool
+
+
+@dataclass
+class LocateResult:
+    ok: bool
+    message: str
+    sources: list[FittedSource]
+    background_fa_db: float
+    residual_rms_db: float
+    predicted_dbm: np.ndarray
+    readings_dbm: np.ndarray
+    labels: list[str] = field(default_factory=list)
+    outliers: list[tuple[str, float, float]] = field(default_factory=list)
+    """Readings the fit misses by more than their uncertainty: (label, miss [dB], uncertainty [dB])."""
+
+
+def _symmetric_front_back(antenna, freq_hz) -> bool:
+    az = np.radians(np.arange(0, 180, 15.0))
+    el = np.radians(np.full_like(az, 10.0))
+    a = antenna.gain_linear(freq_hz, az, el)
+    b = antenna.gain_linear(freq_hz, az + np.pi, el)
+    return bool(np.allclose(a, b, rtol=1e-6, atol=0))
+
+
+def locate(
+    readings: list[Reading],
+    *,
+    freq_hz: float,
+    bandwidth_hz: float,
+    n_sources: int = 1,
+    fit_elevation: bool = False,
+    elevation_deg: float = 5.0,
+    chain_gain_db: float = 0.0,
+    nside: int = 16,
+    seed: int = 0,
+) -> LocateResult:
+    """Fit ``n_sources`` compact sources plus a diffuse background to the readings."""
+    if n_sources < 1:
+        raise LocateError("n_sources must be >= 1")
+    n_unknown = 1 + n_sources * (3 if fit_elevation else 2)
+    if len(readings) < n_unknown + 1:
+        raise LocateError(
+            f"too few readings: {len(readings)} for {n_unknown} unknowns (background level and "
+            f"{'bearing, elevation and level' if fit_elevation else 'bearing and level'} per source); "
+            f"take at least {n_unknown + 1}, e.g. a loop rotated in 30 deg steps"
+        )
+    from noisemodels import sky
+    from noisemodels.sphere import upper_hemisphere
+
+    levels = np.array([r.level_dbm for r in readings], dtype=float)
+    if not np.all(np.isfinite(levels)):
+        raise LocateError("every reading needs a finite level")
+    grid = upper_hemisphere(nside)
+    bg = sky.diffuse_component(
+        "background",
+        kind="man-made",
+        level=p372.NoiseLevel(0.0, 0.0, 0.0),
+        directions=grid,
+        elevation="low",
+        elevation_params={"scale_rad": np.radians(10.0)},
+    )
+    t_bg = np.array(
+        [
+            sky.weighted_temperature_k(
+                r.antenna.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad), bg.weight_k_sr
+            )
+            for r in readings
+        ]
+    )  # for Fa 0 dB background
+    ktb_g = 10 ** ((power_dbm(1.0, bandwidth_hz=bandwidth_hz) + chain_gain_db) / 10)  # mW per K
+
+    def unpack(x):
+        b = x[0]
+        srcs = []
+        for s in range(n_sources):
+            j = 1 + s * (3 if fit_elevation else 2)
+            el = x[j + 2] if fit_elevation else np.radians(elevation_deg)
+            srcs.append((x[j], el, x[j + 1]))
+        return b, srcs
+
+    def model_dbm(x):
+        b, srcs = unpack(x)
+        t = 10 ** (b / 10) * t_bg
+        for az, el, log_s in srcs:
+            g = np.array([r.antenna.gain_linear(freq_hz, np.array([az]), np.array([el]))[0] for r in readings])
+            t = t + 10**log_s * g / (4 * np.pi)
+        return 10 * np.log10(np.maximum(t * ktb_g, 1e-300))
+
+    def resid(x):
+        return model_dbm(x) - levels
+
+    # Initial strength: the brightest reading's power as if on a 0 dBi antenna.
+    s0 = np.log10(10 ** (levels.max() / 10) / ktb_g * 4 * np.pi)
+    b0 = float(levels.min() - 10 * np.log10(ktb_g * max(t_bg.max(), 1e-30)))
+    best = None
+    rng = np.random.default_rng(seed)
+    starts = np.radians(np.arange(0, 360, 30.0))
+    for az0 in starts:
+        x0 = [b0 - 10]
+        lo, hi = [-50.0], [250.0]
+        for s in range(n_sources):
+            x0 += [az0 + s * np.pi / max(n_sources, 1) + rng.normal(0, 0.05), s0]
+            lo += [-4 * np.pi, s0 - 20]
+            hi += [4 * np.pi, s0 + 20]
+            if fit_elevation:
+                x0.append(np.radians(elevation_deg))
+                lo.append(0.0)
+                hi.append(np.radians(85.0))
+        r = least_squares(resid, x0, bounds=(lo, hi), loss="soft_l1", f_scale=1.0)
+        if best is None or r.cost < best.cost:
+            best = r
+    x = best.x
+    res = best.fun
+    dof = max(len(levels) - len(x), 1)
+    s2 = float(np.sum(res**2) / dof)
+    rms = float(np.sqrt(np.mean(res**2)))
+    symmetric = all(_symmetric_front_back(r.antenna, freq_hz) for r in readings)
+    try:
+        cov = np.linalg.inv(best.jac.T @ best.jac) * max(s2, 1e-4)
+        ok_cov = np.all(np.isfinite(cov))
+    except np.linalg.LinAlgError:
+        cov, ok_cov = None, False
+    b, srcs = unpack(x)
+    fitted = []
+    for s, (az, el, log_s) in enumerate(srcs):
+        j = 1 + s * (3 if fit_elevation else 2)
+        sig = float(np.degrees(np.sqrt(abs(cov[j, j])))) if ok_cov else float("inf")
+        # Level on the reference monopole for the fitted strength.
+        t_ref = 10**log_s * float(sky.reference_monopole_gain(el)) / (4 * np.pi)
+        fitted.append(
+            FittedSource(
+                float(np.degrees(az) % 360),
+                sig,
+                float(np.degrees(el)),
+                float(p372.temperature_to_fa_db(t_ref)),
+                symmetric,
+            )
+        )
+    ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
+    predicted = model_dbm(x)
+    outliers = [
+        (r.label, float(p - lv), float(r.uncertainty_db))
+        for r, p, lv in zip(readings, predicted, levels)
+        if abs(p - lv) > r.uncertainty_db
+    ]
+    if ok and outliers:
+        named = ", ".join(f"{lab} ({miss:+.1f} dB, allowed {u:g})" for lab, miss, u in outliers)
+        count = "1 reading misses" if len(outliers) == 1 else f"{len(outliers)} readings miss"
+        msg = (
+            f"fit found, but {count} it by more than the stated uncertainty: {named}; "
+            "read again, or fit another source (--sources)"
+        )
+        if symmetric:
+            msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
+    elif ok:
+        msg = "fit converged"
+        if symmetric:
+            msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
+    else:
+        msg = (
+            "the readings do not constrain a direction (bearing uncertainty over "
+            f"{MAX_BEARING_SIGMA_DEG:g} deg or a singular fit); take readings on a loop rotated in steps, or on "
+            "directional antennas pointing different ways"
+        )
+    background = float(b)  # the background's Fa on the reference monopole: scale of the Fa-0-dB component
+    return LocateResult(ok, msg, fitted, background, rms, predicted, levels, [r.label for r in readings], outliers)
+
+
+def source_names(res: LocateResult, name: str = "located source") -> list[str]:
+    """The names the fitted sources are written under: ``name``, or ``name 1``, ``name 2``... for several."""
+    return [name] if len(res.sources) == 1 else [f"{name} {i + 1}" for i in range(len(res.sources))]
+
+
+def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
+    """The fitted sources as [[noise.local]] tables: placed (position, Fa measured at ``at_m``) where the reading
+    point and a distance are known, else by bearing."""
+    from snrgain.tools.tomltext import toml_string
+
+    blocks = []
+    for i, (s, label) in enumerate(zip(res.sources, source_names(res, name))):
+        note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
+        head = f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
+        dist = None if distances_m is None else distances_m[min(i, len(distances_m) - 1)]
+        if at_m is not None and dist is not None:
+            b = np.radians(s.bearing_deg)
+            e, n = at_m[0] + dist * np.sin(b), at_m[1] + dist * np.cos(b)
+            blocks.append(
+                head + f"name = {toml_string(label)}\n"
+                f'position = ["{e:.1f} m", "{n:.1f} m"]   # {dist:g} m from the readings\n'
+                f'fa = {s.fa_db:.1f}\nmeasured_at = ["{at_m[0]:.1f} m", "{at_m[1]:.1f} m"]\n'
+            )
+        else:
+            blocks.append(
+                head + f"name = {toml_string(label)}\n"
+                f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
+            )
+    return "".join(blocks)
+
+
+def with_sources(text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
+    """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
+    table removed), the others kept; refuses a failed fit."""
+    import tomllib
+
+    from snrgain.tools.tomltext import remove_tables
+
+    if not res.ok:
+        raise LocateError("the fit failed, so no sources were written: " + res.message)
+    kept = remove_tables(text, "[[noise.local]]", set(source_names(res, name)))
+    out = kept.rstrip("\n") + "\n" + scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name)
+    tomllib.loads(out)  # still one valid file
+    return out
+
+
+def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
+    """JSON-ready result (units in the keys)."""
+    return {
+        "ok": res.ok,
+        "message": res.message,
+        "frequency_hz": freq_hz,
+        "bandwidth_hz": bandwidth_hz,
+        "background_fa_db": res.background_fa_db,
+        "residual_rms_db": res.residual_rms_db,
+        "sources": [vars(s) for s in res.sources],
+        "outliers": [{"label": lab, "miss_db": m, "uncertainty_db": u} for lab, m, u in res.outliers],
+        "readings": [
+            {"label": lab, "level_dbm": lv, "fitted_dbm": p}
+            for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)
+        ],
+    }

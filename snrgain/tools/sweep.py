@@ -1,0 +1,538 @@
+"""Design sweeps: a scenario run over a grid of values of its keys, as a tidy table.
+
+A varied key is written ``TABLE: KEY = VALUES`` (snrgain's own syntax):
+
+- TABLE is a candidate's name, ``reference``, or a section of the scenario (``site``, ``band``, ``time``,
+  ``receiver``, ``chain``); KEY is a key of that table (dotted for a key inside it, ``feedline.length``);
+- VALUES is a range ``START to STOP by STEP`` (the same unit throughout, STOP included when the steps reach
+  it: ``150 m to 350 m by 10 m``) or a list ``A, B, C`` (``sandy soil, moist loam``; ``1, 7`` for months).
+
+    >>> v = parse_vary("Beverage NE: length = 150 m to 250 m by 50 m")
+    >>> v.table, v.key, v.values, v.column
+    ('Beverage NE', 'length', ['150 m', '200 m', '250 m'], 'Beverage NE: length [m]')
+    >>> parse_vary("time: months = 1, 7").values
+    [[1], [7]]
+
+Every combination of the varied values is one design.  When only candidates' own keys vary, the sky, the
+reference and every other antenna are computed once and each design rebuilds only what changed; otherwise
+each design is a full run.  The SNR figures are the nominal ones (median ground and noise levels) unless the
+spreads are asked for, which makes every design a full run.  Rows stream to the output in chunks, so memory
+stays flat however many designs there are; with Dask (:func:`run` ``dask=``) the chunks run on a cluster and
+come back in order, so the table is the same as in one process.
+"""
+
+from __future__ import annotations
+
+import copy
+import itertools
+import math
+import re
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+import numpy as np
+
+from snrgain.errors import ScenarioError, SpecError
+
+SECTIONS = ("site", "band", "time", "receiver", "chain", "noise", "uncertainty", "compute")
+"""Tables of the scenario that a sweep may vary besides the antennas."""
+LIST_KEYS = {("time", "months"), ("time", "utc_hours")}
+"""Keys whose value is a list: a varied value becomes a one-element list (one month per design)."""
+MAX_DESIGNS = 10_000_000
+"""The most designs one sweep may hold."""
+COLUMNS = [
+    "design",
+    "antenna",
+    "target",
+    "snr_gain_db",
+    "rdf_db",
+    "front_to_back_db",
+    "gain_toward_target_dbi",
+    "margin_db",
+    "receiver_limited",
+]
+SPREAD_COLUMNS = ["snr_gain_median_db", "snr_gain_p10_db", "snr_gain_p90_db", "probability_beats_reference"]
+
+_NUMBER = r"[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d{1,3})?"
+_TERM = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s].*?)?\s*$")
+
+
+class VaryError(ValueError):
+    """A --vary argument that cannot be used; the message names it."""
+
+    def __init__(self, text: str, message: str):
+        self.text = text
+        super().__init__(f"--vary {text!r}: {message}")
+
+
+@dataclass(frozen=True)
+class Vary:
+    """One varied key: where it is, and the values it takes (as a scenario file would hold them)."""
+
+    text: str
+    table: str
+    key: str
+    values: list
+    column: str
+    """The output column holding the design's value (the unit in brackets for a range)."""
+    column_values: list
+    """The values as written in the column: numbers in the range's unit, or the list items."""
+
+
+def _term(text: str, what: str, arg: str) -> tuple[float, str]:
+    m = _TERM.match(text)
+    if m is None:
+        raise VaryError(arg, f"cannot read the range's {what} {text.strip()!r}: write a number and a unit")
+    return float(m.group(1)), (m.group(2) or "").strip()
+
+
+def _scalar(item: str):
+    """A list item as a scenario value: a number where it is one, else the text."""
+    item = item.strip()
+    try:
+        return int(item)
+    except ValueError:
+        pass
+    try:
+        return float(item)
+    except ValueError:
+        return item
+
+
+def parse_vary(text: str) -> Vary:
+    """Read one ``TABLE: KEY = VALUES`` argument (module docstring); raises VaryError naming it."""
+    if ":" not in text or "=" not in text:
+        raise VaryError(text, "write TABLE: KEY = VALUES, e.g. 'Beverage NE: length = 150 m to 350 m by 10 m'")
+    table, rest = text.split(":", 1)
+    key, values = rest.split("=", 1)
+    table, key, values = table.strip(), key.strip(), values.strip()
+    if not table or not key or not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_][A-Za-z0-9_]*)*", key):
+        raise VaryError(text, f"the table and key must be named, the key as word or word.word; got {key!r}")
+    listed = (table, key) in LIST_KEYS
+    m = re.fullmatch(r"(.+?)\s+to\s+(.+?)\s+by\s+(.+)", values)
+    if m is None and re.search(r"\bto\b", values):
+        raise VaryError(text, "a range is START to STOP by STEP, e.g. '150 m to 350 m by 10 m'")
+    if m:
+        (a, ua), (b, ub), (step, us) = (_term(m.group(i), w, text) for i, w in ((1, "start"), (2, "stop"), (3, "step")))
+        if not ua == ub == us:
+            raise VaryError(
+                text, f"give the start, stop and step in one unit; got {ua or 'none'}, {ub or 'none'}, {us or 'none'}"
+            )
+        if step == 0 or not math.isfinite(step):
+            raise VaryError(text, "the step must not be zero")
+        if (b - a) * step < 0:
+            raise VaryError(text, f"the range is empty: from {a:g} the step {step:g} never reaches {b:g}")
+        n = int(math.floor((b - a) / step + 1e-9)) + 1
+        if n > MAX_DESIGNS:
+            raise VaryError(text, f"{n} values is too many (at most {MAX_DESIGNS})")
+        nums = [a + i * step for i in range(n)]
+        nums = [round(x, 12) for x in nums]
+        vals = [f"{x:g} {ua}" if ua else x for x in nums]
+        column = f"{table}: {key} [{ua}]" if ua else f"{table}: {key}"
+        col_vals = nums
+    else:
+        items = [v.strip() for v in values.split(",")]
+        if not any(items):
+            raise VaryError(text, "no values: give a range START to STOP by STEP or a list A, B, C")
+        if not all(items):
+            raise VaryError(text, f"item {items.index('') + 1} of the list is empty (two commas, or one at an end)")
+        vals = [_scalar(s) for s in items]
+        column = f"{table}: {key}"
+        col_vals = list(vals)
+    if listed:
+        vals = [[v] for v in vals]
+    return Vary(text, table, key, vals, column, col_vals)
+
+
+def _table(data: dict, vary: Vary) -> dict:
+    """The table of the raw scenario a varied key lives in (created for a section that is absent)."""
+    if vary.table == "reference":
+        ref = data.get("reference")
+        if ref is None:
+            raise VaryError(vary.text, "the scenario gives no [reference] table; write one to vary it")
+        return ref
+    if vary.table in SECTIONS:
+        return data.setdefault(vary.table, {})
+    for cand in data.get("candidate", []):
+        if isinstance(cand, dict) and cand.get("name") == vary.table:
+            return cand
+    names = [c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)]
+    raise VaryError(
+        vary.text,
+        f"no candidate named {vary.table!r}; the candidates are {names}, or vary "
+        f"'reference' or a section ({', '.join(SECTIONS)})",
+    )
+
+
+def apply(data: dict, varies: list[Vary], values) -> dict:
+    """A copy of the raw scenario with each varied key set to its value in this design."""
+    out = copy.deepcopy(data)
+    for vary, value in zip(varies, values):
+        table = _table(out, vary)
+        *path, last = vary.key.split(".")
+        for part in path:
+            table = table.setdefault(part, {})
+            if not isinstance(table, dict):
+                raise VaryError(vary.text, f"{part!r} is not a table in {vary.table!r}")
+        table[last] = value
+    return out
+
+
+def design_count(varies: list[Vary]) -> int:
+    n = 1
+    for v in varies:
+        n *= len(v.values)
+    return n
+
+
+def designs(varies: list[Vary]) -> Iterator[tuple]:
+    """Every combination of the varied values, the last key varying fastest (lazily)."""
+    return itertools.product(*(v.values for v in varies))
+
+
+# -- evaluation --------------------------------------------------------------------------------------------------
+
+
+@dataclass
+class Study:
+    """A sweep's scenario and options, everything a worker needs to run designs (picklable)."""
+
+    data: dict
+    label: str
+    base_dir: str | None
+    varies: list[Vary]
+    p372_dir: str | None = None
+    nside: int | None = None
+    spread: bool = False
+
+    @property
+    def fast(self) -> bool:
+        """Only candidates' own keys vary (not their chains), and no spread is asked: the shared part is computed
+        once."""
+        return not self.spread and all(
+            v.table not in SECTIONS and v.table != "reference" and not v.key.startswith("chain") for v in self.varies
+        )
+
+    def load(self, data: dict):
+        from snrgain.scenario import load
+
+        base = Path(self.base_dir) if self.base_dir else None
+        sc = load(data, nside=self.nside, p372_dir=self.p372_dir, base_dir=base, label=self.label)
+        if not self.spread:
+            sc = replace(
+                sc,
+                uncertainty=replace(sc.uncertainty, ground=False, noise_deciles=False, local_sources=False),
+            )
+        return sc
+
+
+def validate(study: Study) -> None:
+    """Check every varied key before any work: its table exists, and the first and last value of each (every
+    value of a list) give a valid scenario.  Raises VaryError naming the argument."""
+    base_values = [v.values[0] for v in study.varies]
+    for i, vary in enumerate(study.varies):
+        ends = vary.values if len(vary.values) <= 16 else [vary.values[0], vary.values[-1]]
+        for value in ends:
+            values = list(base_values)
+            values[i] = value
+            try:
+                study.load(apply(study.data, study.varies, values))
+            except ScenarioError as exc:
+                problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
+                raise VaryError(vary.text, f"with {_shown(value)} the scenario is invalid: {problems}") from None
+            except (SpecError, ValueError) as exc:
+                raise VaryError(vary.text, f"with {_shown(value)}: {exc}") from None
+
+
+def _shown(value) -> str:
+    return repr(value[0] if isinstance(value, list) and len(value) == 1 else value)
+
+
+class _Shared:
+    """The stages a sweep's designs share, made once from the first design: the sky (its local sources resolved),
+    the reference's products; a design then goes through the same stages (snrgain.model.pipeline) for the antennas it
+    changes.  What an antenna declares decides how much is shared: a candidate set under the sky is set under
+    this sky (pipeline.steer); a phasing unit, or an antenna a phasing unit holds, takes the whole scenario."""
+
+    def __init__(self, study: Study):
+        from snrgain.model import pipeline
+
+        self.study = study
+        sc = pipeline.resolve_sources(study.load(study.data))
+        self.grid = pipeline.sky_grid(sc)
+        self.skies = pipeline.build_sky(sc, self.grid)
+        self.sc = sc
+        self.ref = pipeline.products(sc, [sc.reference], self.grid, self.skies)
+        self.raw_ground = study.data.get("site", {}).get("ground", "moist loam")
+        self.names = [c.name for c in sc.candidates]
+        self.tables = [c.get("name") if isinstance(c, dict) else None for c in study.data.get("candidate", [])]
+        held = {id(e) for a in sc.candidates if a.composite for e in a.elements}
+        self.alone = {a.name for a in sc.candidates if not a.composite and id(a) not in held}
+        """Candidates that stand alone: a design that changes one of them rebuilds it alone."""
+
+    def candidate(self, data: dict, name: str):
+        """The AntennaResult of one candidate of a design (nominal: no spreads)."""
+        from snrgain.model import pipeline
+        from snrgain.scenario import antenna_from_table
+
+        sc = self.sc
+        k = self.names.index(name)
+        spec = dict(data["candidate"][self.tables.index(name)])  # by place: a design may rename it
+        for key in ("chain", "place"):  # the candidate's own chain is the scenario's; its place is layout's
+            spec.pop(key, None)
+        base = Path(self.study.base_dir) if self.study.base_dir else None
+        ant = antenna_from_table(
+            spec, f"candidate {name!r}", site_ground=self.raw_ground, base_dir=base, freq_hz=sc.freq_hz
+        )
+        sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[1 + k]))
+        sub = pipeline.steer(sub, self.grid, self.skies)
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+        return pipeline.antenna_results(sub, p, self.skies)[1]
+
+
+_SHARED: dict[int, _Shared] = {}
+
+
+def _shared(study: Study) -> _Shared:
+    key = id(study)
+    shared = _SHARED.get(key)
+    if shared is None:
+        _SHARED.clear()
+        shared = _SHARED[key] = _Shared(study)
+    return shared
+
+
+def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
+    """Rows (one per design, varied antenna and target) for a chunk of (design number, values)."""
+    from snrgain.model import pipeline
+
+    rows = []
+    shared = _shared(study) if study.fast else None
+    varied = {v.table for v in study.varies}
+    for number, values in chunk:
+        data = apply(study.data, study.varies, values)
+        if shared is not None and varied <= shared.alone:
+            targets = [t.name for t in shared.sc.targets]
+            for name in sorted(varied, key=shared.names.index):
+                rows += _rows(number, study.varies, values, shared.candidate(data, name), targets, False)
+            continue
+        if study.spread:
+            r = pipeline.evaluate(study.load(data))
+            targets, chosen = [t["name"] for t in r.targets], list(r.candidates)
+        else:
+            sc, _, _, per = pipeline.nominal(study.load(data))
+            targets, chosen = [t.name for t in sc.targets], per[1:]
+        names = varied & {c.name for c in chosen}
+        for a in [c for c in chosen if c.name in names] or chosen:
+            rows += _rows(number, study.varies, values, a, targets, study.spread)
+    return rows
+
+
+def _rows(number, varies, values, a, targets, spread) -> list[dict]:
+    out = []
+    fixed = {"design": number}
+    for vary, value in zip(varies, values):
+        fixed[vary.column] = vary.column_values[vary.values.index(value)]
+    margin = float(np.min(a.margin_db))
+    for i, target in enumerate(targets):
+        row = dict(fixed)
+        row.update(
+            antenna=a.name,
+            target=target,
+            snr_gain_db=float(a.snr_gain_nominal_db[i]),
+            rdf_db=float(a.rdf_db[i]),
+            front_to_back_db=float(a.front_to_back_db[i]),
+            gain_toward_target_dbi=float(a.gain_dbi[i]),
+            margin_db=margin,
+            receiver_limited=bool(a.receiver_limited),
+        )
+        if spread:
+            row.update(
+                snr_gain_median_db=float(a.snr_gain_median_db[i]),
+                snr_gain_p10_db=float(a.snr_gain_p10_db[i]),
+                snr_gain_p90_db=float(a.snr_gain_p90_db[i]),
+                probability_beats_reference=float(a.probability_beats[i]),
+            )
+        out.append(row)
+    return out
+
+
+# -- output ------------------------------------------------------------------------------------------------------
+
+
+class _TableWriter:
+    """Rows appended in chunks to CSV or Parquet (pyarrow), with the column order fixed by the first chunk."""
+
+    def __init__(self, path: Path, fmt: str):
+        self.path, self.fmt = path, fmt
+        self.columns = None
+        self._csv = self._pq = self._fh = None
+
+    def write(self, rows: list[dict]):
+        if not rows:
+            return
+        if self.columns is None:
+            self.columns = list(rows[0])
+            if self.fmt == "csv":
+                import csv
+
+                self._fh = open(self.path, "w", newline="", encoding="utf-8")  # noqa: SIM115 - closed in close()
+                self._csv = csv.writer(self._fh, lineterminator="\n")
+                self._csv.writerow(self.columns)
+        if self.fmt == "csv":
+            for r in rows:
+                self._csv.writerow([_cell(r[c]) for c in self.columns])
+        else:
+            import pyarrow as pa
+            import pyarrow.parquet as pq
+
+            table = pa.Table.from_pylist(rows).select(self.columns)
+            if self._pq is None:
+                self._pq = pq.ParquetWriter(str(self.path), table.schema)
+            self._pq.write_table(table)
+
+    def close(self):
+        if self._fh is not None:
+            self._fh.close()
+        if self._pq is not None:
+            self._pq.close()
+
+
+def _cell(v):
+    if isinstance(v, float):
+        return "" if not math.isfinite(v) else repr(v)
+    return v
+
+
+def output_format(path) -> str:
+    suffix = Path(path).suffix.lower()
+    if suffix == ".csv":
+        return "csv"
+    if suffix in (".parquet", ".pq"):
+        try:
+            import pyarrow  # noqa: F401
+        except ImportError:
+            raise ValueError("Parquet output needs pyarrow: pip install 'snrgain[scale]'") from None
+        return "parquet"
+    raise ValueError(f"{path}: write the sweep as .csv or .parquet")
+
+
+# -- the run -----------------------------------------------------------------------------------------------------
+
+TARGET_CHUNK_S = 0.1
+"""A chunk of designs holds about this much work [s] (enough to keep a cluster's overhead small)."""
+PROBE_DESIGNS = 5
+PROBE_S = 0.05
+"""The work per design is timed on the designs after the first, up to PROBE_DESIGNS of them or PROBE_S [s]."""
+
+
+def run(
+    study: Study,
+    output,
+    *,
+    overwrite: bool = False,
+    dask: str | None = None,
+    progress: Callable[[int], None] | None = None,
+    chunk_designs: int | None = None,
+) -> int:
+    """Run every design and write the table to ``output`` (.csv or .parquet) whole or not at all.
+
+    ``dask``: "local" for a LocalCluster on this machine, or a scheduler's address.  ``progress(n)`` is called
+    with the number of designs done after each chunk.  Returns the number of designs.
+    """
+    from snrgain.files import write_atomic
+
+    fmt = output_format(output)
+    validate(study)
+    total = design_count(study.varies)
+    numbered = enumerate(designs(study.varies))
+    import time
+
+    # The first design also builds what every design shares (the sky, the reference): its time would make
+    # every chunk a single design.  The chunks are sized from the designs after it, timed one by one.
+    head_rows = run_designs(study, list(itertools.islice(numbered, 1)))
+    n_head = 1
+    size = chunk_designs
+    if size is None:
+        n_probe, t0 = 0, time.perf_counter()
+        while n_probe < PROBE_DESIGNS and time.perf_counter() - t0 < PROBE_S:
+            block = list(itertools.islice(numbered, 1))
+            if not block:
+                break
+            head_rows += run_designs(study, block)
+            n_probe += 1
+        per_design = max((time.perf_counter() - t0) / n_probe, 1e-5) if n_probe else 1e-4
+        n_head += n_probe
+        size = max(1, int(TARGET_CHUNK_S / per_design))
+
+    def chunks():
+        while True:
+            block = list(itertools.islice(numbered, size))
+            if not block:
+                return
+            yield block
+
+    def body(tmp: Path):
+        writer = _TableWriter(tmp, fmt)
+        try:
+            writer.write(head_rows)
+            done = n_head
+            if progress:
+                progress(done)
+            results = _in_process(study, chunks()) if dask is None else _on_dask(study, chunks(), dask)
+            for n, rows in results:
+                writer.write(rows)
+                done += n
+                if progress:
+                    progress(done)
+        finally:
+            writer.close()
+
+    write_atomic(output, body, overwrite=overwrite)
+    return total
+
+
+def _in_process(study, chunks):
+    for block in chunks:
+        yield len(block), run_designs(study, block)
+
+
+def connect(address: str, *, timeout_s: float = 8.0):
+    """A Dask client: a LocalCluster of two single-threaded workers for "local", else the scheduler at
+    ``address``; ValueError naming --dask when it cannot be reached within ``timeout_s``."""
+    try:
+        from distributed import Client, LocalCluster
+    except ImportError:
+        raise ValueError("--dask needs Dask's distributed scheduler: pip install 'snrgain[scale]'") from None
+    if address == "local":
+        cluster = LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None)
+        return Client(cluster)
+    try:
+        return Client(address, timeout=f"{timeout_s}s")
+    except (OSError, TimeoutError) as exc:
+        raise ValueError(
+            f"--dask {address!r}: cannot reach the scheduler ({exc.__class__.__name__}: {exc}); "
+            "start one with 'dask scheduler' and workers with 'dask worker ADDRESS'"
+        ) from None
+
+
+def _on_dask(study, chunks, address):
+    """Chunks on a Dask cluster, a few in flight per worker, results taken back in order."""
+    client = connect(address)
+    try:
+        study_future = client.scatter(study, broadcast=True)
+        window = max(2, 2 * len(client.scheduler_info().get("workers", {})))
+        pending = []
+        for block in chunks:
+            pending.append((len(block), client.submit(run_designs, study_future, block, pure=False)))
+            if len(pending) >= window:
+                n, fut = pending.pop(0)
+                yield n, fut.result()
+        for n, fut in pending:
+            yield n, fut.result()
+    finally:
+        cluster = getattr(client, "cluster", None)
+        client.close()
+        if cluster is not None:
+            cluster.close()

@@ -1,0 +1,279 @@
+"""Design helpers for long wires: length, termination, transformer.
+
+Pure functions over the long-wire families (snrgain.antennas.longwire):
+
+- :func:`sweep_rdf`: RDF toward a target for many designs (length x
+  termination x bearing), each a full pattern on the sky grid;
+- :func:`best_length` and :func:`best_termination`: the values the model
+  finds best for a target (RDF or front-to-back), beside the traditional
+  rules (maximum-effective-length rule; termination = |Z0|);
+- :func:`transformer`: the turns ratio that matches the feed-point impedance
+  to 50 or 75 ohm coax and the mismatch loss of a chosen ratio.
+
+RDF here is toward the target directions under a uniform sky (the antenna's
+own directivity figure, on the trade's whole-sphere scale, snrgain.model.snr); the
+full noise sky is the ranking's business.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from noisemodels.sphere import Directions, upper_hemisphere
+from snrgain.antennas import FAMILIES, from_spec
+from snrgain.antennas.base import variant
+from snrgain.constants import wire_families
+from snrgain.model import snr
+from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.targets import TargetDirections, from_bearing
+
+PRACTICAL_TURNS = (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0)
+"""Turns ratios easy to wind on a small two-hole ferrite core (integer and half turns)."""
+
+
+DEFAULT_HEIGHT = "2.5 m"
+"""Height of a wire in the air when none is given (a family with its own default, the BOG, keeps it)."""
+
+DEFAULT_ELEVATION_RAD = np.radians(20.0)
+"""Elevation of the target along the wire when none is given [rad]: a typical low-band DX arrival angle
+(common practice)."""
+
+
+def along_wire_target(bearing_rad: float, elevation_rad: float = DEFAULT_ELEVATION_RAD) -> TargetDirections:
+    """A target straight along a wire's bearing at one elevation."""
+    return from_bearing(
+        "along the wire", bearing_rad=bearing_rad, elevation_lo_rad=elevation_rad, elevation_hi_rad=elevation_rad
+    )
+
+
+def _target(target, bearing_rad) -> TargetDirections:
+    return target if target is not None else along_wire_target(bearing_rad)
+
+
+def rdf_db(antenna, freq_hz: float, target: TargetDirections, grid: Directions) -> float:
+    g = antenna.gain_linear(freq_hz, grid.azimuth_rad, grid.elevation_rad)
+    toward = snr.target_gain(lambda az, el: antenna.gain_linear(freq_hz, az, el), target)
+    return snr.rdf_db(toward, snr.sphere_mean_gain(g, grid))
+
+
+def front_to_back_db(antenna, freq_hz: float, target: TargetDirections) -> float:
+    return snr.front_to_back_db(
+        lambda az, el: antenna.gain_linear(freq_hz, az, el),
+        bearing_rad=target.bearing_rad,
+        elevation_rad=target.mean_elevation_rad,
+    )
+
+
+def sweep_rdf(
+    spec: dict, freq_hz: float, *, lengths_m, terminations_ohm, bearings_deg, target=None, nside: int = 32
+) -> np.ndarray:
+    """RDF [dB] for every (length, termination, bearing) design; shape (lengths, terminations, bearings)."""
+    grid = upper_hemisphere(nside)
+    base = from_spec(spec)
+    out = np.empty((len(lengths_m), len(terminations_ohm), len(bearings_deg)))
+    for i, length in enumerate(lengths_m):
+        for j, term in enumerate(terminations_ohm):
+            for k, bearing in enumerate(bearings_deg):
+                ant = variant(base, length=float(length), termination=float(term), bearing=float(np.radians(bearing)))
+                tgt = _target(target, np.radians(bearing))
+                out[i, j, k] = rdf_db(ant, freq_hz, tgt, grid)
+    return out
+
+
+@dataclass(frozen=True)
+class LengthAdvice:
+    """Lengths for a travelling-wave wire [m]."""
+
+    rule_m: float
+    """The maximum-effective-length rule, lambda / (4 (1/k - cos alpha))."""
+    best_m: float
+    """The length of highest RDF toward the target found by the model within the range searched."""
+    best_rdf_db: float
+    lengths_m: np.ndarray
+    rdf_db: np.ndarray
+
+
+def best_length(
+    spec: dict, freq_hz: float, *, target=None, max_length_m: float | None = None, steps: int = 40, nside: int = 16
+) -> LengthAdvice:
+    """The model's best length for RDF toward the target, beside the traditional rule."""
+    ant = from_spec(spec)
+    tgt = _target(target, ant.bearing_rad)
+    lam = C_M_PER_S / freq_hz
+    k = ant.line(freq_hz).velocity_factor
+    rule = lines.max_effective_length_m(lam, velocity_factor=k, elevation_rad=tgt.mean_elevation_rad)
+    top = max_length_m or min(3000.0, 3.0 * (rule if np.isfinite(rule) else 3 * lam))
+    grid = upper_hemisphere(nside)
+    lengths = np.linspace(0.1 * lam, top, steps)
+    rdf = np.array([rdf_db(variant(ant, length=float(x)), freq_hz, tgt, grid) for x in lengths])
+    i = int(np.argmax(rdf))
+    return LengthAdvice(rule, float(lengths[i]), float(rdf[i]), lengths, rdf)
+
+
+@dataclass(frozen=True)
+class TerminationAdvice:
+    """Termination resistors [ohm]."""
+
+    textbook_ohm: float
+    """|Z0| less the far ground rod's resistance: the resistor that matches the line."""
+    best_ohm: float
+    """The resistor of highest figure (RDF or front-to-back) found by the model."""
+    metric: str
+    best_value_db: float
+    values_ohm: np.ndarray
+    figure_db: np.ndarray
+
+
+def best_termination(
+    spec: dict, freq_hz: float, *, target=None, metric: str = "rdf", nside: int = 16, values_ohm=None
+) -> TerminationAdvice:
+    """The termination of highest RDF or front-to-back for the target, beside |Z0|."""
+    if metric not in ("rdf", "front_to_back"):
+        raise ValueError(f"metric must be 'rdf' or 'front_to_back', got {metric!r}")
+    ant = variant(from_spec(spec), termination="auto")
+    textbook = ant.termination_ohm(freq_hz)
+    tgt = _target(target, ant.bearing_rad)
+    values = np.asarray(values_ohm if values_ohm is not None else np.geomspace(50.0, 3000.0, 61))
+    grid = upper_hemisphere(nside)
+    fig = []
+    for r in values:
+        a = variant(ant, termination=float(r))
+        fig.append(rdf_db(a, freq_hz, tgt, grid) if metric == "rdf" else front_to_back_db(a, freq_hz, tgt))
+    fig = np.array(fig)
+    i = int(np.argmax(fig))
+    return TerminationAdvice(float(textbook), float(values[i]), metric, float(fig[i]), values, fig)
+
+
+@dataclass(frozen=True)
+class TransformerAdvice:
+    feed_point_impedance_ohm: complex
+    coax_ohm: float
+    exact_turns_ratio: float
+    practical_turns_ratio: float
+    practical_mismatch_loss_db: float
+    chosen_turns_ratio: float
+    chosen_mismatch_loss_db: float
+
+
+def transformer(antenna, freq_hz: float) -> TransformerAdvice:
+    """Turns ratio matching the feed point to the coax, and the mismatch loss of the practical and chosen ratios."""
+    z = antenna.feed_point_impedance(freq_hz)
+    zc = float(antenna.params.coax)
+    exact = float(np.sqrt(abs(z) / zc))
+    practical = min(PRACTICAL_TURNS, key=lambda n: abs(n - exact))
+
+    def loss(n):
+        return float(-10 * np.log10(lines.mismatch_factor(z, n * n * zc)))
+
+    chosen = antenna.turns_ratio(freq_hz)
+    return TransformerAdvice(z, zc, exact, practical, loss(practical), chosen, loss(chosen))
+
+
+SAFETY = (
+    "Safety: keep the wire and its supports well clear of power lines; ground and disconnect the feed line "
+    "when storms are near; have buried utilities located before driving ground rods; mark or bury wires "
+    "on the ground where people walk. Follow local codes."
+)
+
+
+def wire_spec(
+    family: str,
+    *,
+    length,
+    height=None,
+    termination="auto",
+    feed_ground="20 ohm",
+    far_ground="20 ohm",
+    gauge: int | None = None,
+    diameter=None,
+    ground="moist loam",
+    conductivity=None,
+    permittivity=None,
+    coax: int = 75,
+    depth=None,
+) -> dict:
+    """An antenna spec for a long wire from design options (units as in scenario files).
+
+    Each key goes only to the families whose table takes it (their parameter model says which): the far-end
+    keys, ``depth`` (a wire on the ground may be buried), ``termination``.  ``height`` defaults to the family's
+    own default where it has one (a BOG's axis 2 cm above the soil; "on soil" rests it on the soil), else to
+    :data:`DEFAULT_HEIGHT`; ``conductivity`` with ``permittivity`` replaces a named ``ground``.
+    """
+    if family not in wire_families():
+        raise ValueError(f"family must be one of {', '.join(wire_families())}; got {family!r}")
+    takes = FAMILIES[family].params.model_fields
+    spec = {"family": family, "length": length, "coax": int(coax), "feed_ground": feed_ground}
+    if height is not None or takes["height"].is_required():
+        spec["height"] = DEFAULT_HEIGHT if height is None else height
+    if depth is not None:
+        if "depth" not in takes:
+            raise ValueError(f"depth: only a bog (a wire on the ground) can be buried, not a {family}")
+        if height is not None:
+            raise ValueError("depth: a buried wire has no height above the soil; give one or the other")
+        spec.pop("height", None)  # a buried BOG takes no height (the family refuses the pair)
+        spec["depth"] = depth
+    if "far_ground" in takes:
+        spec["far_ground"] = far_ground
+    if "termination" in takes:
+        spec["termination"] = termination
+    elif termination != "auto":
+        raise ValueError(f"termination: the {family} family sets its own far end; leave the termination out")
+    if gauge is not None:
+        spec["gauge"] = gauge
+    if diameter is not None:
+        spec["diameter"] = diameter
+    if conductivity is not None or permittivity is not None:
+        if conductivity is None or permittivity is None:
+            raise ValueError("conductivity and permittivity go together")
+        spec["ground"] = {"conductivity": conductivity, "permittivity": permittivity}
+    else:
+        spec["ground"] = ground
+    return spec
+
+
+def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_ELEVATION_RAD) -> dict:
+    """Design figures for a long wire at one frequency (JSON-ready, SI units in the keys).
+
+    The line's constants; the traditional length rule beside the model's best length for RDF along the wire at
+    ``elevation_rad``; this wire's RDF, front-to-back and forward gain; the textbook termination (|Z0|) beside
+    those of best RDF and best front-to-back; the transformer that matches the feed to the coax.
+    """
+    ant = from_spec(spec)
+    ant.check_frequency(freq_hz)
+    target = along_wire_target(0.0, elevation_rad)
+    length_adv = best_length(spec, freq_hz, target=target)
+    out = {
+        "antenna": ant.describe(),
+        **ant.design(freq_hz),
+        "target_elevation_deg": float(np.degrees(elevation_rad)),
+        "length_rule_m": length_adv.rule_m,
+        "best_length_m": length_adv.best_m,
+        "best_length_rdf_db": length_adv.best_rdf_db,
+        "rdf_db": rdf_db(ant, freq_hz, target, upper_hemisphere(32)),
+        "front_to_back_db": front_to_back_db(ant, freq_hz, target),
+        "forward_gain_dbi": float(ant.gain_dbi(freq_hz, 0.0, np.degrees(elevation_rad))),
+        "safety": SAFETY,
+    }
+    if "termination" in type(ant.params).model_fields:  # a resistor the builder chooses
+        t_rdf = best_termination(spec, freq_hz, target=target, metric="rdf")
+        t_fb = best_termination(spec, freq_hz, target=target, metric="front_to_back")
+        out.update(
+            textbook_termination_ohm=t_rdf.textbook_ohm,
+            far_ground_ohm=float(ant.far_rod_ohm),
+            best_rdf_termination_ohm=t_rdf.best_ohm,
+            best_front_to_back_termination_ohm=t_fb.best_ohm,
+            # How much the choice matters: each figure's range over the resistors searched (50-3000 ohm).
+            termination_rdf_span_db=float(np.ptp(t_rdf.figure_db)),
+            termination_front_to_back_span_db=float(np.ptp(t_fb.figure_db)),
+            termination_search_ohm=[float(t_rdf.values_ohm[0]), float(t_rdf.values_ohm[-1])],
+        )
+    tr = transformer(ant, freq_hz)
+    out.update(
+        exact_turns_ratio=tr.exact_turns_ratio,
+        practical_turns_ratio=tr.practical_turns_ratio,
+        practical_mismatch_loss_db=tr.practical_mismatch_loss_db,
+    )
+    return out
