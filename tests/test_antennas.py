@@ -195,3 +195,28 @@ def test_direction_geometry_is_never_stale():
     fresh = bev.gain_linear(1.83e6, az.copy() + 0.0, el.copy())
     np.testing.assert_array_equal(g2, fresh)
     assert not np.allclose(g1, g2)
+
+
+def test_library_edges_are_refused_naming_the_argument():
+    # Issue 28's library edges: a zero, NaN or array frequency, NaN directions, numpy scalars into from_si, and no
+    # numpy warning leaking from a null (below the horizon the gain is 0 and reads -inf dBi, quietly).
+    import warnings
+
+    import numpy as np
+    import pytest
+
+    from snrgain.antennas import from_si
+
+    v = from_si("vertical", height=np.float32(18.0))
+    assert v.params.height == pytest.approx(18.0)
+    for bad, says in ((0.0, "freq_hz"), (float("nan"), "freq_hz"), (np.array([1.8e6, 3.5e6]), "one at a time")):
+        with pytest.raises(ValueError, match=says):
+            v.gain_dbi(bad, 0.0, 10.0)
+    with pytest.raises(ValueError, match="elevation_deg"):
+        v.gain_dbi(1.83e6, 0.0, float("nan"))
+    with pytest.raises(ValueError, match="azimuth_deg"):
+        v.gain_dbi(1.83e6, [0.0, float("inf")], 10.0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        assert v.gain_dbi(1.83e6, 0.0, -10.0) == -np.inf
+        assert np.isfinite(v.gain_dbi(np.float32(1.83e6), 0.0, 10.0))

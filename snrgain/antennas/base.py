@@ -94,15 +94,17 @@ class Antenna(ABC):
 
         -inf where the gain is zero (below the horizon, exact nulls).
         """
+        f = _frequency(freq_hz)
         az, el = _radians(azimuth_deg, elevation_deg)
-        with np.errstate(divide="ignore"):
-            return 10.0 * np.log10(self.gain_linear(float(freq_hz), az, el))
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+            return 10.0 * np.log10(self.gain_linear(f, az, el))
 
     def partial_gains_dbi(self, freq_hz: float, azimuth_deg, elevation_deg) -> tuple[np.ndarray, np.ndarray]:
         """Partial gains (vertical, horizontal) [dBi] toward bearing and elevation [deg]."""
+        f = _frequency(freq_hz)
         az, el = _radians(azimuth_deg, elevation_deg)
-        gv, gh = self.partial_gains(float(freq_hz), az, el)
-        with np.errstate(divide="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+            gv, gh = self.partial_gains(f, az, el)
             return 10.0 * np.log10(gv), 10.0 * np.log10(gh)
 
     def at(self, position_m) -> Antenna:
@@ -153,10 +155,33 @@ class TransformerFeed:
         return mismatch_factor(self.feed_point_impedance(freq_hz), self.receiver_load_ohm(freq_hz))
 
 
+def _frequency(freq_hz) -> float:
+    """One frequency [Hz] in the tool's range, as a float; ValueError naming the argument otherwise (an array of
+    frequencies is evaluated one frequency at a time)."""
+    from snrgain.constants import check_frequency_hz
+
+    f = np.asarray(freq_hz)
+    if f.ndim != 0 or not np.issubdtype(f.dtype, np.number) or np.iscomplexobj(f):
+        raise ValueError(f"freq_hz: one real frequency in Hz, e.g. 1.83e6; got {freq_hz!r} (give one at a time)")
+    if not np.isfinite(f):
+        raise ValueError(f"freq_hz: must be a finite frequency in Hz; got {float(f)!r}")
+    return check_frequency_hz(float(f), "freq_hz")
+
+
 def _radians(azimuth_deg, elevation_deg):
-    az = np.radians(np.asarray(azimuth_deg, dtype=float))
-    el = np.radians(np.asarray(elevation_deg, dtype=float))
-    return np.broadcast_arrays(az, el)
+    """Directions [deg] as radians, broadcast together; ValueError naming the argument for NaN or infinity."""
+    out = []
+    for name, v in (("azimuth_deg", azimuth_deg), ("elevation_deg", elevation_deg)):
+        try:
+            a = np.asarray(v, dtype=float)
+        except (TypeError, ValueError):
+            raise ValueError(f"{name}: numbers in degrees; got {v!r}") from None
+        if not np.all(np.isfinite(a)):
+            raise ValueError(f"{name}: every direction must be a finite number of degrees; got {v!r}")
+        out.append(np.radians(a))
+    if np.any(np.abs(out[1]) > np.pi / 2 + 1e-12):
+        raise ValueError(f"elevation_deg: between -90 and 90 deg; got {elevation_deg!r}")
+    return np.broadcast_arrays(*out)
 
 
 def above_horizon(elevation_rad) -> np.ndarray:
@@ -298,7 +323,8 @@ def from_si(family: str, **values) -> Antenna:
     ...
     snrgain.errors.SpecError: length: must be between 1 m and 3000 m; got -1.0
     """
-    return build({"family": family, **values}, si=True)
+    plain = {k: v.item() if isinstance(v, np.generic) else v for k, v in values.items()}  # numpy scalars as floats
+    return build({"family": family, **plain}, si=True)
 
 
 def variant(antenna: Antenna, **si_values) -> Antenna:
