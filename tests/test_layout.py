@@ -158,3 +158,26 @@ def test_a_dead_end_is_found_from_geometry_and_names_the_wire_that_binds(monkeyp
     monkeypatch.setattr(pr, "snr_gain_db", lambda *a: pytest.fail("scored a design before checking the geometry"))
     with pytest.raises(ValueError, match=r"rules out: 10 m from the wire 'old Beverage' \(\d+ %\); the lot"):
         pr.search()
+
+
+def test_layout_plot_with_a_phased_array_on_the_lot(tmp_path):
+    # Issue 28: `layout --plot` crashed on any scenario with a phased-vertical array (its footprint is several
+    # points).  The plan now draws each element.
+    from snrgain.tools.layout import plan_data
+
+    text = (DATA / FILES[0]).read_text() + (
+        '\n[[candidate]]\nname = "pair"\nfamily = "phased-verticals"\n'
+        'positions = [["100 m", "100 m"], ["100 m", "120 m"]]\nheight = "6 m"\nbearing = 0\n'
+    )
+    import tomllib
+
+    data = tomllib.loads(text)
+    pr = Problem(load(data), data)
+    layouts = pr.search(keep=1)
+    fixed = dict.fromkeys(name for name, _ in plan_data(pr, layouts[0])["fixed"])
+    assert "pair" in fixed
+    path = tmp_path / "t.toml"
+    path.write_text(text, encoding="utf-8")
+    res = CliRunner().invoke(cli, ["layout", str(path), "--plot", str(tmp_path / "plan.png")])
+    assert res.exit_code == 0, res.output
+    assert (tmp_path / "plan.png").stat().st_size > 10_000

@@ -170,3 +170,15 @@ def test_chunks_sized_from_the_work_per_design_not_the_shared_set_up(monkeypatch
     sw.run(study, out)
     assert sum(calls) == 10 and len(calls) < 10, calls
     assert len(list(csv.DictReader(out.open()))) == 10 * 2
+
+
+def test_a_sweep_may_rename_a_candidate_and_a_long_one_is_asked_for(tmp_path):
+    # Issue 28: `--vary 'X: name = a, b'` ended in a StopIteration traceback; a million designs ran silently.
+    out = tmp_path / "n.csv"
+    res = CliRunner().invoke(cli, ["sweep", str(DEMO), "--vary", "Beverage toward Europe: name = a, b", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.open()))
+    assert {r["antenna"] for r in rows} == {"a", "b"} and "sweep: 2 designs" in res.output
+    big = ["--vary", "Beverage toward Europe: length = 100 m to 1099.999 m by 0.001 m"]
+    res = CliRunner().invoke(cli, ["sweep", str(DEMO), *big, "-o", str(tmp_path / "big.csv")])
+    assert res.exit_code == 2 and "--allow-long" in res.output and not (tmp_path / "big.csv").exists()

@@ -7,6 +7,7 @@ from pathlib import Path
 import click
 
 from snrgain.cli.options import (
+    allow_long_option,
     check_output,
     handle_errors,
     nside_option,
@@ -51,10 +52,11 @@ from snrgain.cli.options import (
     "workers on this machine.  The table is the same as in one process.",
 )
 @overwrite_option
+@allow_long_option
 @nside_option
 @p372_dir_option
 @handle_errors
-def sweep(scenario, varies, output, spread, dask_address, overwrite, nside, p372_dir):
+def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long, nside, p372_dir):
     """Run SCENARIO over every combination of the --vary values and write one row per design, varied antenna
     and target: the varied values, the SNR gain over the reference, RDF, front-to-back, gain toward the target
     and the worst-hour noise margin.
@@ -85,6 +87,13 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, nside, p372
     total = sw.design_count(parsed)
     if total > sw.MAX_DESIGNS:
         raise ValueError(f"--vary: {total} designs is too many (at most {sw.MAX_DESIGNS})")
+    if total > sw.LONG_DESIGNS and not allow_long:
+        raise ValueError(
+            f"--vary: {total} designs is a long run (more than {sw.LONG_DESIGNS}; a candidate's own keys run a few "
+            "hundred designs a second, a section's a few a second); narrow the ranges or coarsen the steps, or pass "
+            "--allow-long to run them all"
+        )
+    click.echo(f"sweep: {total} design{'s' if total != 1 else ''}", err=True)
     with progress(total, "sweep: designs") as bar:
         n = sw.run(study, output, overwrite=overwrite, dask=dask_address, progress=bar.update)
     click.echo(f"wrote {output}: {n} designs", err=True)

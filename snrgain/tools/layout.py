@@ -407,8 +407,12 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
         if a.name in problem.names:
             continue
         shape = footprint(a)
-        if shape is not None and hasattr(shape, "coords"):
-            fixed.append((a.name, list(shape.coords)))
+        if shape is None:
+            continue
+        parts = getattr(shape, "geoms", [shape])  # an array's elements are a multi-part footprint
+        for part in parts:
+            if part.geom_type in ("Point", "LineString"):
+                fixed.append((a.name, list(part.coords)))
     return {
         "site": sc.site.name,
         "lot": list(sc.site.lot_m),

@@ -41,6 +41,8 @@ LIST_KEYS = {("time", "months"), ("time", "utc_hours")}
 """Keys whose value is a list: a varied value becomes a one-element list (one month per design)."""
 MAX_DESIGNS = 10_000_000
 """The most designs one sweep may hold."""
+LONG_DESIGNS = 200_000
+"""Above this many designs a sweep runs only when asked (--allow-long): minutes to hours."""
 COLUMNS = [
     "design",
     "antenna",
