@@ -213,21 +213,6 @@ def register(name: str, params: type[AntennaParams], summary: str):
     return deco
 
 
-_UNION_LABELS = {
-    "str",
-    "GroundConstants",
-    "float",
-    "int",
-    "list[float]",
-    "tuple[float, float]",
-    "bool",
-    "is-instance[Ground]",
-    "function-before[check(), float]",
-    "list[int]",
-    "dict[str,any]",
-}
-
-
 def item_label(key: str, index: int, item) -> str:
     """One list item in a field path: counted from 1 and named where it has a name, e.g.
     ``candidate 5 ("BOG toward Europe")``.
@@ -239,26 +224,6 @@ def item_label(key: str, index: int, item) -> str:
     """
     name = item.get("name") if isinstance(item, dict) else None
     return f"{key} {index + 1}" + (f' ("{name}")' if isinstance(name, str) and name else "")
-
-
-def field_path(loc, data=None, prefix: str = "") -> str:
-    """A pydantic error location as the path users read: keys joined by dots, list items counted from 1 and
-    named (:func:`item_label`), union-branch labels dropped."""
-    parts = [] if not prefix else [prefix]
-    node = data
-    key = None
-    for part in loc:
-        if isinstance(part, str) and (part in _UNION_LABELS or part.startswith("function-")):
-            continue
-        if isinstance(part, int) and parts and key is not None:
-            item = node[part] if isinstance(node, list) and -len(node) <= part < len(node) else None
-            parts[-1] = item_label(key, part, item)
-            node, key = item, None
-            continue
-        parts.append(str(part))
-        key = str(part)
-        node = node.get(part) if isinstance(node, dict) else None
-    return ".".join(parts)
 
 
 def pydantic_problems(exc: ValidationError, prefix: str = "", data=None) -> list[tuple[str, str]]:

@@ -8,6 +8,7 @@ import json
 
 import numpy as np
 
+from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
 from snrgain.units import FT_PER_M, s_units
 
@@ -17,21 +18,8 @@ def to_json(results: Results) -> str:
     return json.dumps(results.to_dict(), sort_keys=True, indent=2, allow_nan=False) + "\n"
 
 
-CSV_COLUMNS = [
-    "target",
-    "rank_for_target",
-    "antenna",
-    "family",
-    "month",
-    "utc_hour",
-    "snr_gain_db",
-    "gain_toward_target_dbi",
-    "rdf_db",
-    "front_to_back_db",
-    "noise_dbm",
-    "margin_db",
-    "receiver_snr_loss_db",
-]
+CSV_COLUMNS = DATAFRAME_COLUMNS[: DATAFRAME_COLUMNS.index("receiver_snr_loss_db") + 1]
+"""The CSV's columns: the tidy table's (snrgain.model.labelled) up to the receiver's SNR loss."""
 
 
 def to_csv(results: Results) -> str:
