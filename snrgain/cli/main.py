@@ -119,6 +119,10 @@ def main() -> None:
         if _received:  # the signal was caught where it could not stop the work (see _interrupt_on_signals)
             _stopped(_received[0])
         raise
+    except Exception:
+        if _received:  # a stop whose exception was lost left the work in a state it could not finish from
+            _stopped(_received[0])
+        raise
 
 
 if __name__ == "__main__":  # pragma: no cover
