@@ -48,6 +48,8 @@ class PlaceSection(StrictModel):
 
 
 def inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
+    """A copy of an antenna table with the site's ground where its family stands on ground and gives none, and a
+    pattern file's relative path made relative to the scenario's folder."""
     spec = dict(spec)
     name = spec.get("family")
     family = FAMILIES.get(name) if isinstance(name, str) else None
@@ -110,7 +112,7 @@ def antenna_specs(data, freq_hz: float | None) -> list[tuple[str, Any]]:
 
 def own_tables(spec, where: str):
     """(the antenna's table without its ``place`` and ``chain`` tables, its PlaceSection, its ChainSection,
-    problems): the first two None and problems given when a table is wrong (the antenna is then not built)."""
+    problems): None for the first three, and the problems, when a table is wrong (the antenna is then not built)."""
     own_place = own_chain = None
     if isinstance(spec, dict) and "place" in spec:
         spec = dict(spec)

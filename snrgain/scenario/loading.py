@@ -56,9 +56,7 @@ def load(
     problems += built.problems
     resolved = resolve_sections(model, base_dir, p372_dir, problems)
     if model is not None and built.antennas and not problems:
-        problems += local_sources_clear(model.noise.local, built.antennas, built.wheres, model.site)
-    if model is not None and built.antennas and not problems:
-        problems += local_levels_readable(model.noise.local, built.antennas[0], model.band.frequency, model.site)
+        problems += check_local_sources(model, built)
     if problems:
         raise ScenarioError(label, problems)
     return assemble(label, model, built, resolved, nside)
@@ -83,6 +81,15 @@ class Resolved:
     receiver: rx.Receiver | None = None
     chain: chainmod.Chain | None = None
     """The scenario's [chain], for antennas without one of their own."""
+
+
+def check_local_sources(model: ScenarioModel, built: Built) -> list[tuple[str, str]]:
+    """Placed local sources stand clear of every antenna; then (if they do) levels read on the reference can be read
+    there."""
+    problems = local_sources_clear(model.noise.local, built.antennas, built.wheres, model.site)
+    if not problems:
+        problems = local_levels_readable(model.noise.local, built.antennas[0], model.band.frequency, model.site)
+    return problems
 
 
 def resolve_sections(model: ScenarioModel | None, base_dir: Path | None, option, problems: list) -> Resolved:

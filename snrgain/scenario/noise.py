@@ -168,6 +168,7 @@ class Noise(StrictModel):
 
 
 def resolve_sector(sec: Sector | None) -> noisemod.Sector | None:
+    """A validated sector as the sky builder's Sector (None stays None)."""
     return None if sec is None else noisemod.Sector(sec.start, sec.stop, sec.contrast)
 
 
@@ -201,6 +202,8 @@ def resolve_local_source(src: LocalSource, site: SiteSection, reference_m) -> no
 def noise_settings(
     n: Noise, data_dir: Path | None, site: SiteSection | None = None, reference_m=(0.0, 0.0)
 ) -> noisemod.NoiseSettings:
+    """The [noise] sections as snrgain.noise's settings: components turned off are None, the atmospheric arrival
+    model is the one in force, local sources are placed on the plan and seen from the reference at ``reference_m``."""
     mm, at, gal = n.man_made, n.atmospheric, n.galactic
     return noisemod.NoiseSettings(
         man_made=None

@@ -71,6 +71,8 @@ def chain_from_section(c, *, freq_hz: float, receiver_noise_figure_db: float):
 
 
 def resolve_receiver(r: Receiver, bandwidth_hz: float) -> rx.Receiver:
+    """The receiver of a validated [receiver] section: its noise figure given, read from a floor measured in the
+    band's bandwidth, or the default."""
     if r.noise_floor is not None:
         nf = float(rx.noise_figure_from_floor_db(r.noise_floor, bandwidth_hz=bandwidth_hz))
     else:
