@@ -27,7 +27,8 @@ def _frozen(value):
 
 def resolved_from(section: type[BaseModel], *, rename: dict[str, str] | None = None):
     """Class decorator: ``cls`` becomes a frozen dataclass of ``section``'s fields (renamed as ``rename`` says),
-    whose class method ``of(validated_section)`` builds one.  Methods written on ``cls`` stay."""
+    whose class method ``of(validated_section)`` builds one and whose ``section`` is the section.  Methods written
+    on ``cls`` stay."""
     rename = rename or {}
     keys = [(key, rename.get(key, key)) for key in section.model_fields]
     unknown = set(rename) - set(section.model_fields)

@@ -27,6 +27,9 @@ from .times import Time, Times
 
 
 class ScenarioModel(StrictModel):
+    """The whole file, one field per section (README.md's section table names every key of each:
+    tests/test_schema_docs.py); the reference and candidates stay raw tables, validated by their families."""
+
     site: SiteSection
     band: BandSection
     time: Time = Time()
