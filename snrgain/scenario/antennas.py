@@ -1,0 +1,208 @@
+"""[reference] and [[candidate]]: the antenna tables built by their families (the site's ground and the scenario's
+folder filled in, an antenna's own ``chain`` and ``place`` tables taken out), combinations given their two
+antennas, names checked."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from pydantic import Field, ValidationError, model_validator
+
+from snrgain.antennas import FAMILIES, Antenna, SpecError
+from snrgain.antennas.base import build as build_antenna
+from snrgain.antennas.base import item_label, pydantic_problems
+from snrgain.constants import placeable_families
+from snrgain.fields import Bearing, StrictModel, quantity
+from snrgain.ground import C_M_PER_S
+
+from .receiver import ChainSection
+from .site import raw_ground
+
+
+class PlaceSection(StrictModel):
+    """What ``snrgain layout`` may change of a candidate: its position (always, within the lot), and its bearing
+    and length within ranges."""
+
+    bearing: list[Bearing] | None = Field(default=None, min_length=2, max_length=2)
+    """[from, to] compass bearings, clockwise (e.g. ["20 deg", "70 deg"])."""
+    length: list[quantity("length", ge=1.0, le=3000.0)] | None = Field(default=None, min_length=2, max_length=2)
+    """[shortest, longest] wire length [m]."""
+
+    @model_validator(mode="after")
+    def _ranges(self):
+        if self.length is not None and self.length[0] > self.length[1]:
+            raise ValueError(f"length: the range runs backwards ({self.length[0]:g} m > {self.length[1]:g} m)")
+        return self
+
+    def problem_for(self, antenna) -> str | None:
+        """Why this antenna cannot be placed as asked, or None."""
+        if not antenna.placeable:  # one feed point, a bearing, and for wires a length (declared by the family)
+            return f"snrgain layout places {', '.join(placeable_families())}; not {antenna.family!r}"
+        if self.length is not None and not hasattr(antenna, "length_m"):
+            return f"a {antenna.family} has no length to vary"
+        if self.bearing is not None and not hasattr(antenna.params, "bearing"):
+            return f"a {antenna.family} has no bearing to vary"
+        return None
+
+
+def inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
+    """A copy of an antenna table with the site's ground where its family stands on ground and gives none, and a
+    pattern file's relative path made relative to the scenario's folder."""
+    spec = dict(spec)
+    name = spec.get("family")
+    family = FAMILIES.get(name) if isinstance(name, str) else None
+    if family is not None:
+        fields = family.params.model_fields
+        if "ground" in fields and "ground" not in spec and site_ground is not None:
+            spec["ground"] = site_ground
+        if "file" in fields and isinstance(spec.get("file"), str) and base_dir is not None:
+            p = Path(spec["file"])
+            spec["file"] = str(p if p.is_absolute() else base_dir / p)
+    return spec
+
+
+def antenna_from_table(spec: dict, where: str, *, site_ground, base_dir: Path | None, freq_hz: float) -> Antenna:
+    """Build one antenna table as :func:`load` does (the site's ground filled in, pattern files found relative to
+    the scenario); raises SpecError naming ``where``."""
+    return build_antenna(inject_defaults(spec, site_ground=site_ground, base_dir=base_dir), where, freq_hz=freq_hz)
+
+
+def attach_combinations(antennas: list[Antenna], wheres: list[str]) -> list[tuple[str, str]]:
+    """Give every combination its two antennas, named by ``antennas`` ("reference" or the reference's name names
+    the reference); problems as (path, message)."""
+    by_name = {a.name: a for a, w in zip(antennas, wheres) if w != "reference"}
+    if antennas and wheres[0] == "reference":
+        by_name["reference"] = antennas[0]
+        by_name.setdefault(antennas[0].name, antennas[0])
+    out = []
+    for ant, where in zip(antennas, wheres):
+        if not ant.composite:
+            continue
+        parts = []
+        for i, name in enumerate(ant.params.antennas):
+            if name not in by_name:
+                known = ", ".join(repr(n) for n in by_name)
+                out.append((f"{where}.antennas.{i + 1}", f"no antenna named {name!r}; the scenario has {known}"))
+            else:
+                parts.append(by_name[name])
+        if len(parts) == 2:
+            try:
+                ant.attach(parts)
+            except SpecError as exc:
+                out.extend((f"{where}.{p}", m) for p, m in exc.problems)
+    return out
+
+
+def antenna_specs(data, freq_hz: float | None) -> list[tuple[str, Any]]:
+    """(where, table) of the reference, then of each candidate, as written; an omitted reference is a quarter-wave
+    vertical at the band's frequency, and a reference's family defaults to a vertical."""
+    ref_spec = data.get("reference") if isinstance(data, dict) else None
+    if ref_spec is None:
+        height = C_M_PER_S / freq_hz / 4 if freq_hz else 40.0
+        ref_spec = {"family": "vertical", "name": "quarter-wave vertical", "height": f"{height:.3f} m"}
+    elif isinstance(ref_spec, dict) and "family" not in ref_spec:
+        ref_spec = {**ref_spec, "family": "vertical"}
+    cand_specs = data.get("candidate", []) if isinstance(data, dict) else []
+    return [("reference", ref_spec)] + [
+        (item_label("candidate", i, s), s) for i, s in enumerate(cand_specs if isinstance(cand_specs, list) else [])
+    ]
+
+
+def own_tables(spec, where: str):
+    """(the antenna's table without its ``place`` and ``chain`` tables, its PlaceSection, its ChainSection,
+    problems): None for the first three, and the problems, when a table is wrong (the antenna is then not built)."""
+    own_place = own_chain = None
+    if isinstance(spec, dict) and "place" in spec:
+        spec = dict(spec)
+        raw_place = spec.pop("place")
+        if where == "reference":
+            return (
+                None,
+                None,
+                None,
+                [("reference.place", "the reference stands where it is; only candidates are placed")],
+            )
+        try:
+            own_place = PlaceSection.model_validate(raw_place)
+        except ValidationError as exc:
+            return None, None, None, pydantic_problems(exc, f"{where}.place", raw_place)
+    if isinstance(spec, dict) and "chain" in spec:
+        spec = dict(spec)
+        raw_chain = spec.pop("chain")
+        try:
+            own_chain = ChainSection.model_validate(raw_chain)
+        except ValidationError as exc:
+            return None, None, None, pydantic_problems(exc, f"{where}.chain", raw_chain)
+    return spec, own_place, own_chain, []
+
+
+def name_problems(ant: Antenna, where: str, names: set, ref_name: str | None) -> list[tuple[str, str]]:
+    """The reference cannot be steered for SNR; every candidate has a name of its own (not the reference's)."""
+    params = ant.params
+    if where == "reference":
+        if getattr(params, "steering", None) == "auto" and params.auto_for == "snr":
+            return [
+                (
+                    "reference.auto_for",
+                    "the reference cannot be steered for SNR: the site's noise is read on it; "
+                    "use auto_for = 'rdf' or 'front_to_back'",
+                )
+            ]
+        return []
+    if not params.name:
+        return [(f"{where}.name", "every candidate needs a name")]
+    if params.name in names:
+        return [(f"{where}.name", f"name {params.name!r} is used twice")]
+    if params.name == "reference" or params.name == ref_name:
+        return [(f"{where}.name", f"name {params.name!r} is the reference's; give the candidate a name of its own")]
+    return []
+
+
+@dataclass
+class Built:
+    """The antennas built, the reference first when it built, with where each was written, its own chain section
+    (None: the scenario's [chain]), the candidates layout may place, and every problem found on the way."""
+
+    antennas: list[Antenna] = field(default_factory=list)
+    wheres: list[str] = field(default_factory=list)
+    chains: list[ChainSection | None] = field(default_factory=list)
+    placeable: dict[str, PlaceSection] = field(default_factory=dict)
+    problems: list[tuple[str, str]] = field(default_factory=list)
+
+
+def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
+    """Every antenna table validated by its own family (even when other sections failed) and built."""
+    site_ground = raw_ground(data.get("site", {})) if isinstance(data, dict) else "moist loam"
+    out = Built()
+    names: set = set()
+    ref_name = None
+    for where, spec in antenna_specs(data, freq_hz):
+        spec, own_place, own_chain, problems = own_tables(spec, where)
+        if problems:
+            out.problems.extend(problems)
+            continue
+        try:
+            table = (
+                inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
+            )
+            ant = build_antenna(table, where, freq_hz=freq_hz)
+        except SpecError as exc:
+            out.problems.extend(exc.problems)
+            continue
+        out.problems.extend(name_problems(ant, where, names, ref_name))
+        if where == "reference":
+            ref_name = ant.name
+        else:
+            names.add(ant.params.name)
+        out.antennas.append(ant)
+        out.wheres.append(where)
+        out.chains.append(own_chain)
+        if own_place is not None:
+            problem = own_place.problem_for(ant)
+            if problem:
+                out.problems.append((f"{where}.place", problem))
+            out.placeable[ant.name] = own_place
+    out.problems.extend(attach_combinations(out.antennas, out.wheres))
+    return out

@@ -1,0 +1,121 @@
+"""Local noise sources against the antennas: a placed source stands clear of every antenna, and a level read on
+the reference can be read there (the reference hears the source)."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from snrgain.antennas import Antenna
+
+from .noise import LocalSource, resolve_local_source
+
+if TYPE_CHECKING:
+    from .site import SiteSection
+
+MIN_READING_GAIN = 1e-6
+"""Below this gain (-60 dBi) toward a local source, a level read on the reference cannot place the source."""
+
+
+def local_levels_readable(
+    local: list[LocalSource], reference: Antenna, freq_hz: float, site: SiteSection
+) -> list[tuple[str, str]]:
+    """A local source's level read on the reference antenna needs that antenna to receive from the source's
+    directions (the check the sky builder would fail on later); a placed source must stand clear of it."""
+    from noisemodels.sky import compact_source_directions
+
+    out = []
+    ref_m = reference.params.position or (0.0, 0.0)
+    for i, raw in enumerate(local):
+        where = f'noise.local {i + 1} ("{raw.name}")'
+        src = resolve_local_source(raw, site, ref_m)
+        if raw.level is None:
+            continue
+        if src.position_m is not None:
+            from snrgain import placed
+
+            if not placed.hears(reference, src, freq_hz, ref_m):
+                out.append(
+                    (
+                        f"{where}.level",
+                        f"the reference antenna ({reference.family}) picks up nothing of a {src.polarisation} "
+                        "source where it stands, so a level read on it cannot be placed; give the level as fa, "
+                        "or the polarisation the reference hears",
+                    )
+                )
+            continue
+        d = compact_source_directions(src.bearing_rad, src.elevation_rad, src.spread_rad)
+        if not np.any(reference.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):
+            out.append(
+                (
+                    f"{where}.level",
+                    f"the reference antenna receives nothing from bearing {np.degrees(src.bearing_rad):g} deg, "
+                    f"elevation {np.degrees(src.elevation_rad):g} deg, so a level read on it cannot be placed; "
+                    "give the level as fa instead",
+                )
+            )
+    return out
+
+
+MIN_SOURCE_GAP_M = 1.0
+"""The least distance on the plan between a placed noise source and any antenna's feed point, wire or element [m]:
+closer, its direction and field at the antenna are not defined."""
+
+
+def _antenna_outline(antenna, reference_m) -> list[np.ndarray]:
+    """Where an antenna stands on the plan: its points and, for a long wire, the segment of its wire [m]."""
+    pos = getattr(antenna, "positions", None)
+    if pos is not None and len(pos):
+        pts = np.asarray(pos, dtype=float)
+        return [p for p in pts] + [pts.mean(axis=0)]
+    p = antenna.params.position
+    p = np.asarray(reference_m if p is None else p, dtype=float)
+    if antenna.long_wire:
+        b = antenna.bearing_rad
+        return [np.array([p, p + antenna.length_m * np.array([np.sin(b), np.cos(b)])])]
+    return [p]
+
+
+def _gap_m(point: np.ndarray, shape: np.ndarray) -> float:
+    """Distance on the plan from a point to a point or a segment (2 x 2) [m]."""
+    if shape.ndim == 1:
+        return float(np.hypot(*(point - shape)))
+    a, b = shape
+    ab = b - a
+    t = float(np.clip(np.dot(point - a, ab) / max(float(np.dot(ab, ab)), 1e-300), 0.0, 1.0))
+    return float(np.hypot(*(point - (a + t * ab))))
+
+
+def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSection) -> list[tuple[str, str]]:
+    """Every placed source stands at least :data:`MIN_SOURCE_GAP_M` from every antenna (feed point, wire, element):
+    the field model needs a distance and the reading a direction."""
+    out = []
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    for i, raw in enumerate(local):
+        if raw.bearing is not None:
+            continue
+        src = resolve_local_source(raw, site, ref_m)
+        point = np.asarray(src.position_m, dtype=float)
+        for ant, where in zip(antennas, wheres):
+            if ant.composite:
+                continue
+            gaps = []
+            for shape in _antenna_outline(ant, ref_m):
+                gap = _gap_m(point, shape)
+                if shape.ndim == 2 and hasattr(ant, "wire_height_m"):  # along a wire: the distance in space
+                    gap = float(np.hypot(gap, ant.wire_height_m() - src.height_m))
+                gaps.append(gap)
+            gap = min(gaps)
+            if gap < MIN_SOURCE_GAP_M:
+                key = "position" if raw.position is not None else "latitude"
+                out.append(
+                    (
+                        f'noise.local {i + 1} ("{raw.name}").{key}',
+                        f"the source stands {gap:.2f} m from "
+                        f"{where if where != 'reference' else f'the reference ({ant.name!r})'}; place it at least "
+                        f"{MIN_SOURCE_GAP_M:g} m away from every antenna's feed point, wire and elements",
+                    )
+                )
+                break
+    return out

@@ -1,0 +1,93 @@
+"""[[target]]: the stations listened for, by bearing and elevations or by place, and their directions."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+import numpy as np
+from pydantic import Field, field_validator, model_validator
+
+from snrgain import targets as targetmod
+from snrgain.antennas.base import item_label
+from snrgain.fields import Bearing, Elevation, Latitude, Longitude, StrictModel, quantity
+
+from .times import Hours, Months
+
+if TYPE_CHECKING:
+    from .model import ScenarioModel
+    from .site import SiteSection
+
+MIN_BAND_RAD = float(np.radians(1.0))
+"""The narrowest band of target elevations [rad]."""
+MAX_MIN_ELEVATION_RAD = float(np.radians(45.0))
+"""The highest lowest-arrival angle of a target by place [rad]: higher, the hop geometry has no path."""
+
+
+class Target(StrictModel):
+    name: str
+    weight: float = Field(default=1.0, gt=0.0, le=1000.0)
+    bearing: Bearing | None = None
+    elevation: list[Elevation] | None = None
+    latitude: Latitude | None = None
+    longitude: Longitude | None = None
+    layer_height: quantity("length", ge=80e3, le=1000e3) = targetmod.DEFAULT_LAYER_HEIGHT_M
+    min_elevation: quantity("angle", ge=0.0, le=MAX_MIN_ELEVATION_RAD) = targetmod.DEFAULT_MIN_ELEVATION_RAD
+    months: Months | None = None
+    """The months this target is listened for (default: [time] months)."""
+    utc_hours: Hours | None = None
+    """The UTC hours this target is listened at (default: [time] utc_hours)."""
+
+    @field_validator("elevation", mode="before")
+    @classmethod
+    def _range(cls, v):
+        if v is None:
+            return v
+        if not isinstance(v, list) or len(v) != 2:
+            raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {v!r}")
+        return v
+
+    @model_validator(mode="after")
+    def _one_way(self):
+        by_bearing = self.bearing is not None
+        by_place = self.latitude is not None or self.longitude is not None
+        if by_bearing == by_place:
+            raise ValueError("give either bearing (with elevation = [low, high]) or latitude and longitude")
+        if by_place and (self.latitude is None or self.longitude is None):
+            raise ValueError("a target place needs both latitude and longitude")
+        if by_bearing and self.elevation is None:
+            raise ValueError("a target by bearing needs elevation = [low, high] in degrees")
+        if self.elevation is not None and self.elevation[1] < self.elevation[0]:
+            raise ValueError("elevation range is reversed; write [low, high]")
+        if self.elevation is not None and self.elevation[1] - self.elevation[0] < MIN_BAND_RAD * (1 - 1e-9):
+            raise ValueError(
+                f"elevation range {[round(float(np.degrees(x)), 3) for x in self.elevation]} deg has no "
+                "width; give [low, high] at least 1 deg apart, e.g. [5, 25]"
+            )
+        return self
+
+
+def resolve_target(t: Target, site: SiteSection) -> targetmod.TargetDirections:
+    if t.bearing is not None:
+        return targetmod.from_bearing(
+            t.name, bearing_rad=t.bearing, elevation_lo_rad=t.elevation[0], elevation_hi_rad=t.elevation[1]
+        )
+    return targetmod.from_place(
+        t.name,
+        site_lat_deg=site.latitude,
+        site_lon_deg=site.longitude,
+        lat_deg=t.latitude,
+        lon_deg=t.longitude,
+        layer_height_m=t.layer_height,
+        min_elevation_rad=t.min_elevation,
+    )
+
+
+def resolve_targets(model: ScenarioModel) -> tuple[list[targetmod.TargetDirections], list[tuple[str, str]]]:
+    """Each target's directions, and the problems of those that have none (no hop path, ...)."""
+    tgts, problems = [], []
+    for i, t in enumerate(model.target):
+        try:
+            tgts.append(resolve_target(t, model.site))
+        except ValueError as exc:
+            problems.append((item_label("target", i, t.model_dump()), str(exc)))
+    return tgts, problems
