@@ -15,7 +15,7 @@ from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import item_label, pydantic_problems
 from snrgain.constants import placeable_families
 from snrgain.fields import Bearing, StrictModel, quantity
-from snrgain.ground import C_M_PER_S
+from snrgain.physics.ground import C_M_PER_S
 
 from .receiver import ChainSection
 from .site import raw_ground

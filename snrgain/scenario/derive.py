@@ -4,7 +4,7 @@ Where a resolved object only freezes a section's values (lists become tuples, a 
 name: ``beat_by`` -> ``beat_by_db``), it is not written out again by hand: :func:`resolved_from` makes it a frozen
 dataclass with the section's fields, in the section's order, with the section's defaults.  A key added to the
 section is then in the resolved object too.  Objects that turn a section into something else (the site's ground
-into a Ground and its spread, the noise sections into :mod:`snrgain.noise`'s settings) are written by hand.
+into a Ground and its spread, the noise sections into :mod:`snrgain.sky.noise`'s settings) are written by hand.
 """
 
 from __future__ import annotations

@@ -12,11 +12,11 @@ from pathlib import Path
 import numpy as np
 from pydantic import ValidationError
 
-from snrgain import chain as chainmod
-from snrgain import receiver as rx
-from snrgain import targets as targetmod
 from snrgain.antennas.base import pydantic_problems
 from snrgain.errors import ScenarioError
+from snrgain.physics import chain as chainmod
+from snrgain.physics import receiver as rx
+from snrgain.physics import targets as targetmod
 
 from .antennas import Built, build_antennas
 from .band import Band

@@ -33,7 +33,7 @@ def local_levels_readable(
         if raw.level is None:
             continue
         if src.position_m is not None:
-            from snrgain import placed
+            from snrgain.model import placed
 
             if not placed.hears(reference, src, freq_hz, ref_m):
                 out.append(

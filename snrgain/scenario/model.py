@@ -9,12 +9,12 @@ from typing import Any
 import numpy as np
 from pydantic import Field
 
-from snrgain import chain as chainmod
-from snrgain import noise as noisemod
-from snrgain import receiver as rx
-from snrgain import targets as targetmod
 from snrgain.antennas import Antenna
 from snrgain.fields import StrictModel
+from snrgain.physics import chain as chainmod
+from snrgain.physics import receiver as rx
+from snrgain.physics import targets as targetmod
+from snrgain.sky import noise as noisemod
 
 from .band import Band, BandSection
 from .compute import Compute, PlanSection, Uncertainty, UncertaintySection

@@ -1,4 +1,4 @@
-"""[noise]: the man-made, atmospheric, galactic and local sections, and their resolution into snrgain.noise's
+"""[noise]: the man-made, atmospheric, galactic and local sections, and their resolution into snrgain.sky.noise's
 settings (local sources placed on the plan and seen from the reference; the P.372 data folder found)."""
 
 from __future__ import annotations
@@ -9,10 +9,10 @@ from typing import TYPE_CHECKING, Literal
 import numpy as np
 from pydantic import Field, model_validator
 
-from snrgain import noise as noisemod
-from snrgain import targets as targetmod
 from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES
 from snrgain.fields import Bearing, Elevation, Latitude, Longitude, PlanPoint, PowerDbm, StrictModel, decibels, quantity
+from snrgain.physics import targets as targetmod
+from snrgain.sky import noise as noisemod
 
 from .files import MAX_ITEMS
 
@@ -202,7 +202,7 @@ def resolve_local_source(src: LocalSource, site: SiteSection, reference_m) -> no
 def noise_settings(
     n: Noise, data_dir: Path | None, site: SiteSection | None = None, reference_m=(0.0, 0.0)
 ) -> noisemod.NoiseSettings:
-    """The [noise] sections as snrgain.noise's settings: components turned off are None, the atmospheric arrival
+    """The [noise] sections as snrgain.sky.noise's settings: components turned off are None, the atmospheric arrival
     model is the one in force, local sources are placed on the plan and seen from the reference at ``reference_m``."""
     mm, at, gal = n.man_made, n.atmospheric, n.galactic
     return noisemod.NoiseSettings(

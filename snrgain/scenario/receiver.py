@@ -7,9 +7,9 @@ from typing import Literal
 
 from pydantic import model_validator
 
-from snrgain import chain as chainmod
-from snrgain import receiver as rx
 from snrgain.fields import PowerDbm, StrictModel, decibels, quantity
+from snrgain.physics import chain as chainmod
+from snrgain.physics import receiver as rx
 
 
 class Receiver(StrictModel):
@@ -55,7 +55,7 @@ class ChainSection(StrictModel):
 
 def chain_from_section(c, *, freq_hz: float, receiver_noise_figure_db: float):
     """The chain of a validated [chain] section (the scenario's, or an antenna's own ``chain`` table), built from
-    its values by :func:`snrgain.chain.cascade`."""
+    its values by :func:`snrgain.physics.chain.cascade`."""
     fl, amp = c.feedline, c.preamp
     return chainmod.cascade(
         freq_hz=freq_hz,

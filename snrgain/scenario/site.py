@@ -16,7 +16,7 @@ from snrgain.fields import (
     make_ground,
     quantity,
 )
-from snrgain.ground import Ground, GroundSpread
+from snrgain.physics.ground import Ground, GroundSpread
 
 
 class KeepOut(StrictModel):
@@ -39,7 +39,7 @@ class SiteSection(StrictModel):
 
     @model_validator(mode="after")
     def _outlines(self):
-        from snrgain.lot import polygon
+        from snrgain.decide.lot import polygon
 
         if self.lot is not None:
             polygon(self.lot, "lot")

@@ -7,9 +7,9 @@ from typing import TYPE_CHECKING
 import numpy as np
 from pydantic import Field, field_validator, model_validator
 
-from snrgain import targets as targetmod
 from snrgain.antennas.base import item_label
 from snrgain.fields import Bearing, Elevation, Latitude, Longitude, StrictModel, quantity
+from snrgain.physics import targets as targetmod
 
 from .times import Hours, Months
 
