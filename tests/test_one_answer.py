@@ -147,8 +147,15 @@ STAGE_PIECES = {
 }
 """The pieces the stages are made of (name -> home module): only the pipeline (and the spread's map over
 variants) puts them together; commands call the stages (snrgain.model.pipeline)."""
-COMPOSERS = {"snrgain/model/pipeline.py", "snrgain/model/spread.py", "snrgain/sky/noiseday.py"}
-"""noiseday builds the sky alone for `snrgain noise` (no antennas): a stage on its own, not a composition."""
+COMPOSERS = {
+    "snrgain/model/pipeline.py",
+    "snrgain/model/products.py",
+    "snrgain/model/steering.py",
+    "snrgain/model/spread.py",
+    "snrgain/decide/decisions.py",
+    "snrgain/sky/noiseday.py",
+}
+"""The stage modules the pipeline is made of; noiseday builds the sky alone for `snrgain noise` (no antennas)."""
 
 
 def test_only_the_pipeline_composes_the_stages():

@@ -103,7 +103,7 @@ def noise_offsets_db(
 def on_ground(sc, antennas, ground) -> list:
     """``antennas`` with those standing on the site's ground moved to ``ground`` (new antennas; a setting made
     under the sky is kept, and phasing units are remade over their moved parts)."""
-    from snrgain.model.pipeline import repoint
+    from snrgain.model.steering import repoint
 
     moved = []
     for ant in antennas:
@@ -116,7 +116,8 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
     """(products, weight) of each ground node: the nominal products at the centre node, the same stages
     (:func:`snrgain.model.pipeline.products`) over the antennas moved to each other ground; a level read on the
     reference keeps that reading at every ground (its strength moves so the moved reference still receives it)."""
-    from snrgain.model.pipeline import products, strength_offsets_db
+    from snrgain.model.pipeline import strength_offsets_db
+    from snrgain.model.products import products
 
     u = sc.uncertainty
     out = []

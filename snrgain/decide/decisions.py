@@ -1,0 +1,172 @@
+"""The pipeline's last stage: the Results of a scenario from its per-antenna figures (per target the candidates
+ranked by the median SNR gain toward it, the station plan on the same statistic) and the notices a user should
+read.  Composed by :mod:`snrgain.model.pipeline`."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from noisemodels import p372
+from snrgain.decide.plan import station_plan
+from snrgain.model.results import AntennaResult, Notice, PatternCuts, Results, rank_for_target
+from snrgain.physics import chain as chainmod
+from snrgain.scenario import Scenario
+from snrgain.sky import noise as noisemod
+
+LOBE_ELEVATION_DEG = 15.0
+"""Elevation at which an array's main lobe is compared with its bearing [deg] (a typical low-band arrival)."""
+
+
+def main_lobe_deg(antenna, freq_hz: float) -> float | None:
+    """Bearing [deg] of an array's azimuth maximum at LOBE_ELEVATION_DEG, for the families steered by phases or
+    delays (``phased``); None for the others."""
+    if not antenna.phased:
+        return None
+    az = np.arange(0.0, 360.0, 1.0)
+    g = antenna.gain_dbi(freq_hz, az, LOBE_ELEVATION_DEG)
+    return float(az[int(np.argmax(g))])
+
+
+def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
+    """What the user should know about the results, as codes and numbers."""
+    out = []
+    for r in antennas:
+        if r.receiver_limited:
+            needed = r.preamp_gain_needed_db
+            out.append(
+                Notice(
+                    "receiver-limited",
+                    r.name,
+                    {
+                        "worst_margin_db": float(np.min(r.margin_db)),
+                        "margin_target_db": sc.receiver.margin_target_db,
+                        "max_snr_loss_db": float(np.max(r.receiver_snr_loss_db)),
+                        "preamp_gain_db": float("nan") if np.any(np.isnan(needed)) else float(np.max(needed)),
+                        "preamp_position": r.preamp_position,
+                    },
+                )
+            )
+    for ant in sc.candidates:
+        lobe = main_lobe_deg(ant, sc.freq_hz)
+        if lobe is not None:
+            bearing = float(np.degrees(ant.params.bearing)) % 360.0
+            off = abs((lobe - bearing + 180.0) % 360.0 - 180.0)
+            if off > 90.0:
+                out.append(
+                    Notice(
+                        "lobe-away-from-bearing", ant.name, {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off}
+                    )
+                )
+        far = getattr(ant, "far_rod_ohm", None)
+        if far and getattr(ant, "terminated", False) and getattr(ant.params, "termination", "auto") == "auto":
+            z0 = abs(ant.line(sc.freq_hz).z0)
+            if far > 0.7 * z0:
+                out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
+    from snrgain.decide.lot import site_notices
+
+    out.extend(site_notices(sc))
+    lowest = p372.MAN_MADE_RANGE_HZ[0]
+    if sc.freq_hz < lowest and sc.noise.man_made is not None:
+        out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))
+    return out
+
+
+def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:
+    """The Results of a scenario from its per-antenna figures: per target the candidates ranked by the median SNR
+    gain toward it, and the station plan on that same statistic (snrgain.decide.plan)."""
+    ground = sc.site.ground
+    reference, candidates = antennas[0], antennas[1:]
+    targets = [_target_dict(t, w, tt) for t, w, tt in zip(sc.targets, sc.target_weights, sc.target_times)]
+    plan = station_plan(
+        [a.name for a in antennas],
+        np.array([a.snr_gain_median_db for a in antennas]),
+        sc.target_weights,
+        max_antennas=sc.max_antennas,
+        buildable=[ant.buildable for ant in sc.antennas],
+        target_times=[(list(tt.months), list(tt.utc_hours)) for tt in sc.target_times],
+    )
+    return Results(
+        source=sc.source,
+        site={
+            "name": sc.site.name,
+            "latitude_deg": sc.site.latitude_deg,
+            "longitude_deg": sc.site.longitude_deg,
+            "ground": "perfect" if ground is None else ground.name,
+            "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
+            "ground_permittivity": None if ground is None else ground.permittivity,
+        },
+        freq_hz=sc.freq_hz,
+        bandwidth_hz=sc.bandwidth_hz,
+        months=list(sc.times.months),
+        utc_hours=list(sc.times.utc_hours),
+        targets=targets,
+        noise=skies,
+        reference=reference,
+        candidates=candidates,
+        receiver=_receiver_dict(sc),
+        nside=sc.nside,
+        target_results=[rank_for_target(candidates, i, t["name"], reference) for i, t in enumerate(targets)],
+        plan=plan,
+        uncertainty=_uncertainty_dict(sc),
+        beat_by_db=sc.uncertainty.beat_by_db,
+        notices=notices(sc, [reference, *candidates]),
+        cuts=cuts,
+        lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),
+        local_sources=[
+            {
+                "name": s.name,
+                "bearing_deg": float(np.degrees(s.bearing_rad)),
+                "elevation_deg": float(np.degrees(s.elevation_rad)),
+                "spread_deg": float(np.degrees(s.spread_rad)),
+            }
+            for s in sc.noise.local
+        ],
+    )
+
+
+def _receiver_dict(sc: Scenario) -> dict:
+    ch = chainmod.describe(sc.chain, bandwidth_hz=sc.bandwidth_hz)
+    return {
+        "noise_figure_db": sc.receiver.noise_figure_db,
+        "noise_floor_dbm": ch["noise_floor_dbm"],
+        "margin_target_db": sc.receiver.margin_target_db,
+        "chain_noise_figure_db": ch["noise_figure_db"],
+        "chain_gain_db": ch["gain_db"],
+        "chain_stages": ch["stages"],
+    }
+
+
+def _uncertainty_dict(sc: Scenario) -> dict:
+    u = sc.uncertainty
+    gs = sc.site.ground_spread if u.ground else None
+    return {
+        "ground": None
+        if gs is None or gs.is_zero
+        else {
+            "conductivity_s_per_m": list(gs.conductivity_s_per_m),
+            "permittivity": list(gs.permittivity),
+            "source": gs.source,
+        },
+        "noise_deciles": u.noise_deciles,
+        "local_sources_db": {s.name: s.uncertainty_db for s in sc.noise.local if s.uncertainty_db > 0}
+        if u.local_sources
+        else {},
+        "hours": u.hours,
+        "samples": u.samples,
+        "seed": u.seed,
+        "beat_by_db": u.beat_by_db,
+    }
+
+
+def _target_dict(t, w, times) -> dict:
+    return {
+        "name": t.name,
+        "weight": float(w),
+        "bearing_deg": float(np.degrees(t.bearing_rad)),
+        "elevation_min_deg": float(np.degrees(t.elevation_rad.min())),
+        "elevation_max_deg": float(np.degrees(t.elevation_rad.max())),
+        "distance_km": None if t.distance_m is None else t.distance_m / 1e3,
+        "hops": None if t.hops is None else list(t.hops),
+        "months": list(times.months),
+        "utc_hours": list(times.utc_hours),
+    }
