@@ -230,3 +230,20 @@ def test_placed_source_bad_input(change, message):
         text = text.replace('name = "supply"\n', f'name = "supply"\n{change}\n')
     with pytest.raises(ScenarioError, match=message):
         snrgain.evaluate(text)
+
+
+def test_one_wire_at_many_places_equals_each_place_alone():
+    # The layout search hears a placed source on one design at many feed points at once
+    # (placed.wire_feed_currents); each must equal the single-feed computation exactly (same sample grid).
+    import numpy as np
+
+    from snrgain.antennas import from_si
+    from snrgain.model import placed
+    from snrgain.sky.noise import LocalSource
+
+    bev = from_si("beverage", length=200.0, height=2.0, bearing=np.radians(45.0), ground="moist loam")
+    src = LocalSource("supply", bearing_rad=0.0, position_m=(235.0, -20.0), height_m=2.0)
+    feeds = np.array([[0.0, 0.0], [60.0, 90.0], [200.0, -10.0], [230.0, -15.0]])  # the last one close by
+    batch = placed.wire_feed_currents(bev, src, 1.83e6, feeds, bev.ground)
+    alone = [placed.wire_feed_current(bev, src, 1.83e6, f, bev.ground) for f in feeds]
+    assert np.allclose(batch, alone, rtol=1e-12, atol=0)

@@ -81,24 +81,45 @@ def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarra
 def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) -> complex:
     """The feed current [A] of a long wire driven by a placed source's field (module docstring), for unit field
     at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (trapezoid rule)."""
-    from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
+    return complex(wire_feed_currents(wire, src, freq_hz, np.atleast_2d(feed_m), ground, x_m=x_m)[0])
 
+
+def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None) -> np.ndarray:
+    """:func:`wire_feed_current` for the same wire with its feed at each of ``feeds_m`` (N, 2) [m]: (N,) complex.
+
+    Feeds whose sample grids along the wire are the same (:func:`wire_samples`, set by the closest approach)
+    are summed together in one array expression (a layout trying a design at many places)."""
+    feeds = np.atleast_2d(np.asarray(feeds_m, dtype=float))
     b = wire.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
-    feed = np.asarray(feed_m, dtype=float)
     L = wire.length_m
-    if x_m is None:
-        to_src = np.asarray(src.position_m) - feed
-        along = float(np.clip(to_src @ u, 0.0, L))
-        closest = float(np.hypot(*(to_src - along * u)))
-        x_m = wire_samples(L, freq_hz, float(np.hypot(closest, src.height_m)))
-    x = np.asarray(x_m, dtype=float)
-    pts = feed[None, :] + x[:, None] * u[None, :]
+    if x_m is not None:
+        grids = {None: (np.asarray(x_m, dtype=float), np.arange(len(feeds)))}
+    else:
+        to_src = np.asarray(src.position_m)[None, :] - feeds
+        along = np.clip(to_src @ u, 0.0, L)
+        closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
+        grids = {}
+        for k, c in enumerate(closest):
+            x = wire_samples(L, freq_hz, float(np.hypot(c, src.height_m)))
+            grids.setdefault(len(x), (x, []))[1].append(k)
+    out = np.zeros(len(feeds), dtype=complex)
+    for x, which in grids.values():
+        which = np.asarray(which)
+        out[which] = _currents_on(wire, src, freq_hz, feeds[which], ground, x, u)
+    return out
+
+
+def _currents_on(wire, src, freq_hz, feeds, ground, x, u) -> np.ndarray:
+    from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
+
+    n, L = len(feeds), wire.length_m
+    pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
     ev, eh = source_field(src, pts, freq_hz, ground)
     az = bearing_to(src, pts)
-    w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=b, ground=wire.ground)
+    w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=wire.bearing_rad, ground=wire.ground)
     f_v, f_h = field_along_wire(w, wire.wire_height_m())
-    emf = -w.cos_dphi * f_v[w.inv] * ev - w.sin_dphi * f_h[w.inv] * eh  # per metre along the wire
+    emf = (-w.cos_dphi * f_v[w.inv] * ev - w.sin_dphi * f_h[w.inv] * eh).reshape(n, -1)  # per metre along the wire
     ln = wire.line(freq_hz)
     g, z0 = ln.gamma, ln.z0
     z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
@@ -108,13 +129,14 @@ def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) ->
     else:
         d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
-    current = np.trapezoid(emf * transfer, x)
+    current = np.trapezoid(emf * transfer[None, :], x, axis=1)
     if wire.has_leads:
-        lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv]  # per unit field, at the source's elevation
-        current += lead[0] * ev[0] * transfer[0]  # up the feed lead
+        lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv].reshape(n, -1)  # per unit field
+        ev = ev.reshape(n, -1)
+        current = current + lead[:, 0] * ev[:, 0] * transfer[0]  # up the feed lead
         if z_far is not None:
-            current -= lead[-1] * ev[-1] * transfer[-1]  # down the far lead
-    return complex(current)
+            current = current - lead[:, -1] * ev[:, -1] * transfer[-1]  # down the far lead
+    return current
 
 
 def hears(antenna, src, freq_hz: float, reference_m) -> bool:
@@ -182,15 +204,11 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
     ref_m = antennas[0].params.position or (0.0, 0.0)
     shares, out_powers = {}, {}
     for src in placed:
-        have = None if powers is None else powers.get(src.name)
-        p = np.array(
-            [
-                have[k]
-                if have is not None and np.isfinite(have[k])
-                else received_power(a, src, sc.freq_hz, ref_m, ground)
-                for k, a in enumerate(antennas)
-            ]
-        )
+        have = powers.get(src.name) if powers is not None else None
+        p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
+        _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        for k in np.flatnonzero(~np.isfinite(p)):
+            p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
         scale = p / p[0]
@@ -204,3 +222,21 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
             )
         shares[src.name], out_powers[src.name] = scale, p
     return shares, out_powers
+
+
+def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+    """Fill ``p`` (NaN where not known) for the same long wire standing at several places at once
+    (:func:`wire_feed_currents`): the powers :func:`received_power` gives each, in one array expression."""
+    from snrgain.antennas.longwire import port_response
+
+    groups: dict[str, list[int]] = {}
+    for k, a in enumerate(antennas):
+        if not np.isfinite(p[k]) and a.integrates_near_sources and not a.composite and a.gain_key() is not None:
+            groups.setdefault(a.gain_key(), []).append(k)
+    for ks in (ks for ks in groups.values() if len(ks) > 1):
+        wire = antennas[ks[0]]
+        feeds = np.array([antenna_point(antennas[k], reference_m) for k in ks])
+        i_f = wire_feed_currents(wire, src, freq_hz, feeds, ground)
+        el = np.full(len(ks), src.elevation_rad)
+        e = port_response(freq_hz, i_f, load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=el)
+        p[ks] = np.abs(e) ** 2

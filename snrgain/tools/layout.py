@@ -169,6 +169,21 @@ class Problem:
         k = self.index[i]
         return replace(self.sc, candidates=(ant,), chains=(self.sc.chains[0], self.sc.chains[1 + k]))
 
+    def snr_gains_db(self, designs: list[Design], i: int) -> np.ndarray:
+        """:meth:`snr_gain_db` of many designs of candidate i sharing one bearing and length (one design at many
+        places), through the same stages at once."""
+        from snrgain import pipeline
+
+        d0 = designs[0]
+        ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m)
+        if not self.placed:
+            return np.full(len(designs), self.snr_gain_db(d0, i))
+        ants = tuple(ant0.at((d.east_m, d.north_m)) for d in designs)
+        k = self.index[i]
+        sub = replace(self.sc, candidates=ants, chains=(self.sc.chains[0], *[self.sc.chains[1 + k]] * len(ants)))
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+        return pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i]]
+
     def snr_gain_db(self, d: Design, i: int) -> float:
         """Candidate i's SNR gain [dB] over the reference toward its target, the design standing at its place: the
         ranking's statistic (the median over the target's hours), without the spreads, through the same stages."""
@@ -283,13 +298,14 @@ class Problem:
         done = 0
         for i, designs in enumerate(feasible):
             found = []
+            same: dict[tuple, list[Design]] = {}  # one design (bearing, length) at many places: scored at once
             for d in designs:
-                found.append((self.snr_gain_db(d, i), d))
-                done += 1
-                if progress is not None and done % 50 == 0:
+                same.setdefault((d.bearing_rad, d.length_m), []).append(d)
+            for group in same.values():
+                found += list(zip((float(g) for g in self.snr_gains_db(group, i)), group))
+                done += len(group)
+                if progress is not None:
                     progress(done, total)
-            if progress is not None:
-                progress(done, total)
             found.sort(key=lambda x: -x[0])
             top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(feasible))))
             per.append(_distinct(found, min(TOP_PER_CANDIDATE, top)))
