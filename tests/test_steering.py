@@ -154,3 +154,28 @@ def test_reference_cannot_be_steered_for_snr():
     )
     with pytest.raises(ScenarioError, match="reference cannot be steered for SNR"):
         snrgain.evaluate(text + _pv("x"))
+
+
+def test_the_phase_search_gradient_is_the_ratios_derivative():
+    # The quasi-Newton phase search uses dR/dphi in closed form (steering.ratio_and_gradient); it must match a
+    # central finite difference of the ratio itself on random Hermitian forms.
+    import numpy as np
+
+    from snrgain.antennas import steering as st
+
+    rng = np.random.default_rng(3)
+    m = rng.normal(size=(4, 4)) + 1j * rng.normal(size=(4, 4))
+    s = m @ m.conj().T
+    m = rng.normal(size=(4, 4)) + 1j * rng.normal(size=(4, 4))
+    n = m @ m.conj().T + np.eye(4)
+    amps = np.array([1.0, 0.8, 1.2, 0.9])
+    phi = rng.uniform(-np.pi, np.pi, 3)
+    r, g = st.ratio_and_gradient(phi, amps, s, n)
+    h = 1e-6
+    fd = [
+        (st.ratio_and_gradient(phi + h * e, amps, s, n)[0] - st.ratio_and_gradient(phi - h * e, amps, s, n)[0])
+        / (2 * h)
+        for e in np.eye(3)
+    ]
+    assert r == pytest.approx(st.ratio(amps * np.exp(1j * np.r_[0.0, phi]), s, n))
+    assert np.allclose(g, fd, rtol=1e-6, atol=1e-9)

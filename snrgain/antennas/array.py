@@ -339,11 +339,8 @@ class Array(Antenna):
             back = self.element_responses(freq_hz, np.array([p.bearing + np.pi]), np.array([p.auto_elevation]))
             s_f, s_b = st.quadratic_form(*front), st.quadratic_form(*back)
 
-            def objective(u):
-                f = np.real(u.conj() @ s_f @ u)
-                return f / (np.real(u.conj() @ s_b @ u) + st.FB_FLOOR * f)
-
-            u = st.best_phases(objective, amps, [end_fire])
+            # G_front / (G_back + FB_FLOOR G_front) is itself a ratio of two forms
+            u = st.best_phases(s_f, s_b + st.FB_FLOOR * s_f, amps, [end_fire])
             self.set_weights(freq_hz, np.conj(u), note or "front-to-back at the auto elevation")
             return
         if signal is None:
@@ -356,7 +353,7 @@ class Array(Antenna):
         if self.auto_amplitudes:
             u = free
         else:
-            u = st.best_phases(lambda v: st.ratio(v, signal, noise), amps, [end_fire, free])
+            u = st.best_phases(signal, noise, amps, [end_fire, free])
         self.set_weights(freq_hz, np.conj(u), note)
 
     # -- responses ----------------------------------------------------------------------------------------
