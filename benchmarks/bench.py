@@ -227,20 +227,18 @@ def steering_benchmarks(data):
             "candidate": [{**cand, "auto_for": "snr"}],
             "uncertainty": {"ground": False, "noise_deciles": False, "local_sources": False, "hours": False},
         }
-        sc = load(scen)
+        sc = pl.resolve_sources(load(scen))
         grid = upper_hemisphere(sc.nside)
-        gains = pl.snr.antenna_gains(sc.antennas[:1], sc.freq_hz, grid, sc.targets)
-        skies = pl.build_sky(sc, grid, gains)
-        gains = pl.snr.antenna_gains(sc.antennas, sc.freq_hz, grid, sc.targets)
+        skies = pl.build_sky(sc, grid)
         ant = sc.antennas[1]
 
         def rdf():
-            ant._steered.clear()
-            ant.steer(sc.freq_hz)
+            fresh = ant.copy()
+            fresh._steered.clear()
+            fresh.steer(sc.freq_hz)
 
         def under_sky():
-            ant._steered.clear()
-            pl.steer_to_sky(sc, grid, skies, gains)
+            pl.steer(sc, grid, skies)  # returns the scenario with a newly steered array
 
         for label, fn in ((f"for RDF ({feed})", rdf), (f"for SNR under the sky, 8 hours ({feed})", under_sky)):
             best, med = best_of(fn, n=5)
