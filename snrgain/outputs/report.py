@@ -16,6 +16,7 @@ import numpy as np
 
 from snrgain.outputs import plots
 from snrgain.outputs.output import ground_text
+from snrgain.outputs.style import listening_order
 from snrgain.units import s_units
 
 SAFETY = [
@@ -106,8 +107,8 @@ def _summary(r) -> str:
         ("Site", f"{_e(r.site['name'])}, {r.site['latitude_deg']:.3f}&deg;, {r.site['longitude_deg']:.3f}&deg;"),
         ("Ground", _e(ground_text(r.site))),
         ("Band", f"{r.freq_hz / 1e6:g} MHz, {r.bandwidth_hz:g} Hz bandwidth"),
-        ("Months", ", ".join(str(m) for m in r.months)),
-        ("UTC hours", ", ".join(f"{h:g}" for h in r.utc_hours)),
+        ("Months", ", ".join(str(m) for m in listening_order(r.months, 12))),
+        ("UTC hours", ", ".join(f"{h:g}" for h in listening_order(r.utc_hours, 24))),
         (
             "Receiver",
             f"noise figure {r.receiver['noise_figure_db']:.1f} dB; chain noise figure "
@@ -152,11 +153,11 @@ def _ranking(r) -> str:
     """One table per target (its own ranking, best first) and a line naming the best with its margin."""
     out = []
     for i, (t, tr) in enumerate(zip(r.targets, r.target_results)):
-        hours = ", ".join(f"{h:g}" for h in t["utc_hours"])
+        hours = ", ".join(f"{h:g}" for h in listening_order(t["utc_hours"], 24))
         out.append(
             f"<h3>{_e(t['name'])}</h3><p class='note'>Bearing {t['bearing_deg']:.0f}&deg;, elevations "
             f"{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}&deg;; months "
-            f"{', '.join(str(m) for m in t['months'])}; UTC hours {hours}.</p>"
+            f"{', '.join(str(m) for m in listening_order(t['months'], 12))}; UTC hours {hours}.</p>"
         )
         head = [
             "#",
@@ -261,7 +262,7 @@ def _plan(r) -> str:
         for s in rows:
             out.append(
                 f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td><td class='name'>{_e(s.antenna)}</td>"
-                f"<td class='name'>{', '.join(f'{h:g}' for h in s.utc_hours)}</td>"
+                f"<td class='name'>{', '.join(f'{h:g}' for h in listening_order(s.utc_hours, 24))}</td>"
                 f"<td>{_f(s.snr_gain_db)}</td></tr>"
             )
     out.append("</table>")
@@ -279,8 +280,9 @@ def _build(r) -> str:
     )
 
 
-def figure_list(r) -> list[tuple[str, object, str]]:
-    """(title, figure, caption) for every figure of the report."""
+def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]:
+    """(title, figure, caption) for every figure of the report; ``plan``: the scenario's site plan
+    (:func:`snrgain.outputs.siteplan.plan_of`), else what the results alone give."""
     figs = []
     for i, t in enumerate(r.targets):
         figs.append(
@@ -297,36 +299,52 @@ def figure_list(r) -> list[tuple[str, object, str]]:
                 "Gain against elevation toward the target's bearing; the shaded band is where its signals arrive.",
             )
         )
-    hour_index = len(r.utc_hours) // 2
+    month_index, hour_index = plots.sky_moment(r)
     figs.append(
         (
             "Noise sky",
-            plots.noise_sky(r, hour_index=hour_index),
-            f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC, month {r.months[0]}.",
+            plots.noise_sky(r, month_index=month_index, hour_index=hour_index),
+            f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC in month "
+            f"{r.months[month_index]} (the middle of the listening hours and months), drawn pixel by pixel as the "
+            "model holds it.",
         )
     )
     figs.append(
         (
             "SNR gain over the hours",
             plots.snr_over_hours(r),
-            "Per target, mean over its months; bands show atmospheric noise at its P.372 deciles where included; "
-            "gaps where a target is not listened for.",
+            "Per target, mean over its months, over its own listening window in order (a night across midnight "
+            "is one span); bands and bars show atmospheric noise at its P.372 deciles where included.",
         )
     )
     figs.append(
         (
             "Ranking",
             plots.ranking_chart(r),
-            "Median SNR gain per target with its 10-90 % band; RDF per target; margin of external noise.",
+            "Median SNR gain per target with its 10-90 % band (colour: the antenna, as in every figure; hatching: "
+            "the target); RDF per target; margin of external noise.",
         )
     )
-    if plots.has_site_plan(r):
-        figs.append(("Site plan", plots.site_plan(r), "The lot and the antennas to scale."))
+    if plots.has_site_plan(r, plan=plan):
+        unit = (plan or {}).get("unit", "m")
+        figs.append(
+            (
+                "Site plan",
+                plots.site_plan(r, plan=plan),
+                f"The lot, keep-out areas, the transmitting vertical's clearance, placed noise sources and every "
+                f"antenna as built, to scale in {'feet' if unit == 'ft' else 'metres'}; wires off the lot and "
+                "crossings marked."
+                if plan is not None
+                else "The lot and the antennas with a position, to scale in "
+                "metres (keep-outs and placed sources are drawn when the scenario is given).",
+            )
+        )
     return figs
 
 
-def render(results, *, title: str | None = None) -> str:
-    """The report as one HTML document (a string)."""
+def render(results, *, title: str | None = None, plan: dict | None = None) -> str:
+    """The report as one HTML document (a string); ``plan``: the scenario's site plan
+    (:func:`snrgain.outputs.siteplan.plan_of`; the command line passes it)."""
     r = results
     title = title or f"snrgain report: {r.site['name']}"
     parts = [
@@ -345,7 +363,7 @@ def render(results, *, title: str | None = None) -> str:
         _build(r),
         "<h2 id='figures'>Figures</h2>",
     ]
-    for i, (name, fig, caption) in enumerate(figure_list(r)):
+    for i, (name, fig, caption) in enumerate(figure_list(r, plan=plan)):
         parts.append(
             f"<figure id='figure-{i + 1}'>{_svg(fig)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
             "</figcaption></figure>"
