@@ -264,7 +264,9 @@ def noise_sky(
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
-            db = np.clip(db, vmin, None)  # zero brightness (no arrivals there) drawn as the floor, not left blank
+            # below the scale: its floor; no noise at all from there (the model sends none): grey, said in the title
+            db = np.ma.masked_where(m <= 0, np.clip(db, vmin, None))
+            ax.set_facecolor("0.82")
             mesh = ax.pcolormesh(
                 az_edges, el_edges, db, vmin=vmin, vmax=vmax, cmap="magma", shading="flat", rasterized=True
             )
@@ -295,7 +297,7 @@ def noise_sky(
     title = (
         f"Noise sky at {results.site['name']}, month {month}, {hour:g} UTC, {results.freq_hz / 1e6:g} MHz\n"
         "(the middle of the listening months and hours unless chosen; brightness temperature, interpolated on the "
-        "sphere;\ncrosses: local sources; hatched boxes: targets)"
+        "sphere;\ngrey: no noise arrives from there; crosses: local sources; hatched boxes: targets)"
     )
     if own:
         fig.suptitle(title, fontsize=11)
