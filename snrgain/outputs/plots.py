@@ -152,7 +152,7 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
         tgt["elevation_min_deg"],
         max(tgt["elevation_max_deg"], tgt["elevation_min_deg"] + 0.5),
         facecolor="none",
-        edgecolor="0.55",
+        edgecolor="0.72",
         hatch=target_looks(len(results.targets))[target_index].hatch,
         lw=0.0,
         label=f"arrivals from '{tgt['name']}'",
@@ -184,7 +184,7 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
         f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz"
     )
     ax.grid(alpha=0.3)
-    ax.legend(fontsize=8, loc="lower right", ncols=2)
+    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     if own:
         fig.tight_layout()
     return fig
@@ -421,29 +421,28 @@ def ranking_chart(results, *, ax=None):
     looks = looks_of(ds)
     colors = [looks[n].color for n in names]
     for ti, (t, tl) in enumerate(zip(targets, target_looks(nt))):
-        off = (ti - (nt - 1) / 2) * h
+        off = ((nt - 1) / 2 - ti) * h  # the first target on top, as the legend lists them
         lo, med, hi = (quantiles.isel(target=ti).sel(quantile=q).values for q in QUANTILES)
         bars = {"height": h, "color": colors, "edgecolor": "black", "hatch": tl.hatch, "lw": 0.6}
         axes[0].barh(y + off, med, alpha=0.85, **bars)
         axes[0].bar(0, 0, color="white", edgecolor="black", hatch=tl.hatch, label=t)  # the target's legend swatch
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
         axes[1].barh(y + off, cands["rdf_db"].isel(target=ti).values, **bars)
-        for yi, v, top in zip(y + off, med, hi):
-            axes[0].text(max(top, 0), yi, f"  {v:+.1f}", va="center", fontsize=7)
-        k = names.index(str(ds["best"].values[ti]))
-        axes[0].plot(
-            [med[k]],
-            [y[k] + off],
-            marker="*",
-            color="gold",
-            ms=12,
-            markeredgecolor="black",
-            ls="none",
-            label="best" if ti == 0 else None,
-        )
+        best = names.index(str(ds["best"].values[ti]))
+        for k, (yi, v, top) in enumerate(zip(y + off, med, hi)):
+            axes[0].text(
+                max(top, 0),
+                yi,
+                f"  {v:+.1f}" + ("  best" if k == best else ""),
+                va="center",
+                fontsize=7,
+                fontweight="bold" if k == best else "normal",
+            )
+    lo_x, hi_x = axes[0].get_xlim()
+    axes[0].set_xlim(lo_x, hi_x + 0.25 * (hi_x - lo_x))  # room for the values and "best" beside the bars
     axes[0].axvline(0, color="0.3", lw=1)
     axes[0].set_yticks(y, names)
-    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %")
+    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %; best: the best toward that target")
     axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10)
     axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)

@@ -289,14 +289,16 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
             (
                 f"Azimuth pattern toward {t['name']}",
                 plots.azimuth_pattern(r, target_index=i),
-                "Gain of each antenna at the target's elevation; arrows mark targets, crosses local noise sources.",
+                "Gain of each antenna at the target's elevation (one colour per antenna, one line style and marker per "
+                "family, as in every figure); arrows and hollow marks show targets, black crosses local noise sources.",
             )
         )
         figs.append(
             (
                 f"Elevation pattern toward {t['name']}",
                 plots.elevation_pattern(r, target_index=i),
-                "Gain against elevation toward the target's bearing; the shaded band is where its signals arrive.",
+                "Gain against elevation toward the target's bearing; the hatched band (the target's hatching) is where "
+                "its signals arrive.",
             )
         )
     month_index, hour_index = plots.sky_moment(r)
@@ -305,8 +307,8 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
             "Noise sky",
             plots.noise_sky(r, month_index=month_index, hour_index=hour_index),
             f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC in month "
-            f"{r.months[month_index]} (the middle of the listening hours and months), drawn pixel by pixel as the "
-            "model holds it.",
+            f"{r.months[month_index]} (the middle of the listening months and hours), interpolated on the sphere "
+            "between the model's pixels; grey where no noise arrives.",
         )
     )
     figs.append(
