@@ -215,3 +215,16 @@ def test_the_sky_is_interpolated_and_the_report_names_its_hour(drawn):
     text = report.render(r, plan=plan)
     assert "<td class='name'>11, 12, 1</td>" in text and "<td class='name'>22, 23, 0, 2, 4, 6</td>" in text
     assert "months 11, 12, 1;" in text
+
+
+def test_the_report_marks_each_antenna_with_its_figure_colour(drawn):
+    r, plan, _ = drawn
+    text = report.render(r, plan=plan)
+    ranked = text[text.index("id='ranked'") : text.index("id='plan'")]
+    for name, lk in looks_of(r).items():
+        # the ranking tables: each antenna's row starts with its colour, once per target
+        row = f"<span class='swatch' style='background:{lk.color}'></span>{name}</td>"
+        assert ranked.count(row) == len(r.targets), name
+    served = text[text.index("id='plan'") : text.index("id='build'")]
+    for name in r.plan.antennas:
+        assert f"<span class='swatch' style='background:{looks_of(r)[name].color}'></span>{name}" in served

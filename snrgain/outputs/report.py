@@ -16,7 +16,7 @@ import numpy as np
 
 from snrgain.outputs import plots
 from snrgain.outputs.output import ground_text
-from snrgain.outputs.style import listening_order
+from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import s_units
 
 SAFETY = [
@@ -79,6 +79,8 @@ th { background: #eef5ee; } td.name, th.name { text-align: left; }
 tr.ref td { color: #555; font-style: italic; } td.warn { color: #b00; font-weight: bold; }
 figure { margin: 1em 0; page-break-inside: avoid; } figure svg { max-width: 100%; height: auto; }
 figcaption { font-size: 0.9em; color: #444; }
+.swatch { display: inline-block; width: 0.9em; height: 0.9em; margin-right: 0.4em; vertical-align: -0.1em;
+  border: 1px solid #000; print-color-adjust: exact; -webkit-print-color-adjust: exact; }
 .note { font-size: 0.9em; color: #444; } .safety li { margin-bottom: 0.4em; }
 @media print { body { margin: 0.5cm; max-width: none; } h2 { page-break-after: avoid; } }
 """
@@ -152,6 +154,7 @@ def _summary(r) -> str:
 def _ranking(r) -> str:
     """One table per target (its own ranking, best first) and a line naming the best with its margin."""
     out = []
+    looks = looks_of(r)
     for i, (t, tr) in enumerate(zip(r.targets, r.target_results)):
         hours = ", ".join(f"{h:g}" for h in listening_order(t["utc_hours"], 24))
         out.append(
@@ -191,7 +194,7 @@ def _ranking(r) -> str:
             ref = a is r.reference
             cells = [
                 rank,
-                f"<td class='name'>{_e(a.name)}</td>",
+                f"<td class='name'>{_swatch(looks, a.name)}{_e(a.name)}</td>",
                 "0" if ref else _f(a.snr_gain_median_db[i]),
                 "&ndash;" if ref else f"{_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])}",
                 "&ndash;" if ref else f"{100 * a.probability_beats[i]:.0f} %",
@@ -232,6 +235,12 @@ def _ranking(r) -> str:
     return "\n".join(out)
 
 
+def _swatch(looks, name) -> str:
+    """The antenna's colour as in every figure (snrgain.outputs.style), before its name in the tables."""
+    lk = looks.get(name)
+    return "" if lk is None else f"<span class='swatch' style='background:{lk.color}'></span>"
+
+
 def _spread_words(r) -> str:
     from snrgain.outputs.output import spread_note
 
@@ -243,6 +252,7 @@ def _plan(r) -> str:
     from snrgain.outputs.output import also_build
 
     p = r.plan
+    looks = looks_of(r)
     if not p.antennas:
         return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
     out = [
@@ -251,7 +261,7 @@ def _plan(r) -> str:
     ]
 
     out += [
-        f"<li>{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
+        f"<li>{_swatch(looks, n)}{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
     ]
     out.append(
@@ -261,7 +271,8 @@ def _plan(r) -> str:
     for t, rows in sorted(p.by_target.items()):
         for s in rows:
             out.append(
-                f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td><td class='name'>{_e(s.antenna)}</td>"
+                f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td>"
+                f"<td class='name'>{_swatch(looks, s.antenna)}{_e(s.antenna)}</td>"
                 f"<td class='name'>{', '.join(f'{h:g}' for h in listening_order(s.utc_hours, 24))}</td>"
                 f"<td>{_f(s.snr_gain_db)}</td></tr>"
             )
@@ -273,7 +284,8 @@ def _plan(r) -> str:
 def _build(r) -> str:
     from snrgain.outputs.output import build_lines
 
-    items = "".join(f"<li><b>{_e(name)}</b>: {_e(text)}</li>" for name, text in build_lines(r))
+    looks = looks_of(r)
+    items = "".join(f"<li>{_swatch(looks, name)}<b>{_e(name)}</b>: {_e(text)}</li>" for name, text in build_lines(r))
     return (
         "<p class='note'>Resistors: the nearest E12 value (IEC 60063) beside the computed one; turns ratio: "
         f"antenna side over coax side.</p><ul>{items}</ul>"
