@@ -228,3 +228,12 @@ def test_the_report_marks_each_antenna_with_its_figure_colour(drawn):
     served = text[text.index("id='plan'") : text.index("id='build'")]
     for name in r.plan.antennas:
         assert f"<span class='swatch' style='background:{looks_of(r)[name].color}'></span>{name}" in served
+
+
+def test_the_build_line_gives_a_loop_in_both_units_rounded(drawn):
+    # 26 x 13 ft as written: 7.9248 x 3.9624 m, which the build line printed to every digit
+    from snrgain.outputs.output import build_lines
+
+    r, _, _ = drawn
+    line = dict(build_lines(r))["flag north-west"]
+    assert "rectangle 7.92 x 3.96 m (26.0 x 13.0 ft)" in line
