@@ -237,3 +237,40 @@ def test_the_build_line_gives_a_loop_in_both_units_rounded(drawn):
     r, _, _ = drawn
     line = dict(build_lines(r))["flag north-west"]
     assert "rectangle 7.92 x 3.96 m (26.0 x 13.0 ft)" in line
+
+
+def test_the_layout_plot_is_the_site_plan_with_the_placed_antenna(tmp_path):
+    import re
+    import tomllib
+
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+    from snrgain.tools.layout import Problem, plan_data
+
+    text = SITE.read_text().replace(
+        'position = ["525 ft", "200 ft"]',
+        'position = ["525 ft", "200 ft"]\nplace = { bearing = ["270 deg", "300 deg"], length = ["400 ft", "600 ft"] }',
+    )
+    data = tomllib.loads(text)
+    sc = load(data)
+    problem = Problem(sc, data)
+    best = problem.search(keep=1)[0]
+    plan = plan_data(problem, best)
+    site = plan_of(sc, data=data)
+    # everything the site plan holds, and the placed Beverage where the layout puts it
+    assert plan["keep_out"] == site["keep_out"] and plan["sources"] == site["sources"]
+    assert plan["tx"] == site["tx"] and plan["clearance_m"] == site["clearance_m"] and plan["unit"] == "ft"
+    drawn = {a["name"]: a for a in plan["antennas"]}
+    assert set(drawn) == {a["name"] for a in site["antennas"]}
+    (d,) = best.designs
+    assert drawn[d.name]["placed"] and drawn[d.name]["parts"][0]["coords"][0] == pytest.approx((d.east_m, d.north_m))
+    fig = plots.layout_plan(plan)
+    assert any(ln.get_label().startswith(f"{d.name}: ") and "ft toward" in ln.get_label() for ln in fig.axes[0].lines)
+    path = tmp_path / "site.toml"
+    path.write_text(text, encoding="utf-8")
+    args = ["layout", str(path), "--keep", "1", "--plot", str(tmp_path / "layout.png")]
+    res = CliRunner().invoke(cli, args, env={"COLUMNS": "200"})  # wide enough that rich does not wrap a cell
+    assert res.exit_code == 0, res.output
+    assert re.search(r"-?\d+ ft, -?\d+ ft", res.output)  # the feed point in the scenario's unit
+    assert (tmp_path / "layout.png").stat().st_size > 20_000
