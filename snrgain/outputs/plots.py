@@ -566,7 +566,8 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                 for fx, fy in a.get("member_feeds", []):
                     ax.plot([px[0], fx * k], [py[0], fy * k], color=lk.color, ls=lk.linestyle, lw=1.4, zorder=3)
                 ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=9, ls="none", zorder=5)
-                ax.plot([], [], marker=lk.marker, mec="black", label=f"{label} (phasing unit)", **lk.line())
+                joined = " and ".join(a["members"])
+                ax.plot([], [], marker=lk.marker, mec="black", label=f"{label}: combines {joined}", **lk.line())
             else:
                 ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=10, ls="none", label=label, zorder=5)
             label = None

@@ -3,8 +3,8 @@
 
 :func:`plan_of` returns a JSON-like dict (plan coordinates [m east, m north] inside; the unit to show them in at
 the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources,
-every antenna as built (a wire from its feed point, an array's elements, a combination's members joined to their
-phasing unit), the lengths of wire off the lot and the points where wires cross.  ``snrgain layout`` passes the
+every antenna as built (a wire from its feed point, an array's elements, a combination drawn between its members
+and joined to each), the lengths of wire off the lot and the points where wires cross.  ``snrgain layout`` passes the
 placed designs, which replace those candidates' positions.
 
 The unit is the scenario's: feet when every length written with a unit in [site] and the antennas' places is in
@@ -17,7 +17,7 @@ import re
 
 import numpy as np
 
-from snrgain.decide.lot import footprint, polygon, tx_clearance_m
+from snrgain.decide.lot import OFF_LOT_TOLERANCE_M, footprint, polygon, tx_clearance_m
 from snrgain.units import FT_PER_M
 
 _FEET = re.compile(r"(?:ft|feet|foot|')\s*$", re.IGNORECASE)
@@ -73,7 +73,7 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
 
     ``designs``: :class:`snrgain.tools.layout.Design` objects placing candidates (layout); ``gains``: a label per
     antenna name to add to its legend entry (the layout's SNR gain and target)."""
-    from shapely.geometry import MultiPoint, Point
+    from shapely.geometry import LineString, Point
 
     site = sc.site
     placed = {d.name: d for d in designs}
@@ -93,7 +93,7 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
             entry["members"] = [p.name for p in getattr(ant, "elements", None) or ()]
         antennas.append(entry)
     where = {a["name"]: a for a in antennas}
-    for a in antennas:  # a combination stands at its phasing unit, between its members' feed points
+    for a in antennas:  # a combination: drawn between its members' feed points, joined to each
         if a["members"]:
             pts = [where[m]["parts"][0]["coords"][0] for m in a["members"] if m in where and where[m]["parts"]]
             if pts:
@@ -104,24 +104,16 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
     if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
         tx = tuple(float(v) for v in (ref.params.position or (0.0, 0.0)))
     lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
-    from shapely.geometry import LineString
-
+    off_lot = [] if lot is None else _off_lot(antennas, lot)
     wires = [(a["name"], LineString(p["coords"])) for a in antennas for p in a["parts"] if p["kind"] == "wire"]
-    off_lot, crossings = [], []
-    if lot is not None:
-        for a in antennas:
-            for p in a["parts"]:
-                shape = LineString(p["coords"]) if p["kind"] == "wire" else MultiPoint(p["coords"])
-                outside = shape.difference(lot)
-                if outside.is_empty or (outside.length < 0.1 and p["kind"] == "wire"):
-                    continue
-                for g in getattr(outside, "geoms", [outside]):
-                    off_lot.append({"antenna": a["name"], "coords": [tuple(map(float, c)) for c in g.coords]})
-    for i, (na, wa) in enumerate(wires):
+    crossings = []
+    for i, (na, wa) in enumerate(wires):  # as the lot checks count them (snrgain.decide.lot): touching is not crossing
         for nb, wb in wires[i + 1 :]:
+            if not (wa.crosses(wb) or (wa.intersects(wb) and not wa.touches(wb))):
+                continue
             hit = wa.intersection(wb)
             for g in getattr(hit, "geoms", [hit]):
-                if not g.is_empty and isinstance(g, Point):
+                if isinstance(g, Point):
                     crossings.append({"antennas": [na, nb], "at": (float(g.x), float(g.y))})
     unit = plan_unit(data)
     return {
@@ -139,6 +131,26 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         "off_lot": off_lot,
         "crossings": crossings,
     }
+
+
+def _off_lot(antennas, lot) -> list[dict]:
+    """The stretches of wire and the points (feed points, elements) that lie off the lot by more than the lot checks'
+    tolerance (snrgain.decide.lot.OFF_LOT_TOLERANCE_M)."""
+    from shapely.geometry import LineString, Point
+
+    out = []
+    for a in antennas:
+        for p in a["parts"]:
+            if p["kind"] == "wire":
+                outside = LineString(p["coords"]).difference(lot)
+                if outside.length > OFF_LOT_TOLERANCE_M:
+                    for g in getattr(outside, "geoms", [outside]):
+                        out.append({"antenna": a["name"], "coords": [tuple(map(float, c)) for c in g.coords]})
+            elif p["kind"] in ("point", "elements"):
+                for c in p["coords"]:
+                    if lot.exterior.distance(Point(c)) > OFF_LOT_TOLERANCE_M and not lot.covers(Point(c)):
+                        out.append({"antenna": a["name"], "coords": [tuple(map(float, c))]})
+    return out
 
 
 def plan_from_results(results) -> dict:
