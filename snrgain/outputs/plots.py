@@ -385,7 +385,7 @@ def snr_over_hours(results, *, ax=None):
             axi.set_xticks(x, [f"{h:g}" for h in order])
             axi.set_xlim(x[0] - 0.5, x[-1] + 0.5)
         axi.set_xlabel("UTC hour (the target's listening window, in order)")
-    axes[0].legend(fontsize=8, ncols=2)
+    axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     band = "; bands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
     title = f"SNR gain over the reference through the hours, {ds.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
