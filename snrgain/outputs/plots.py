@@ -10,11 +10,16 @@ functions serve the command line and the report.
 
 - :func:`azimuth_pattern`: polar gain at the target's elevation, targets and local sources marked;
 - :func:`elevation_pattern`: gain against elevation toward the target's bearing;
-- :func:`noise_sky`: brightness over azimuth and elevation, per component and total;
-- :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles (from the labelled results);
+- :func:`noise_sky`: brightness over azimuth and elevation, per component and total, interpolated on the sphere, at
+  the middle of the listening months and hours (:func:`sky_moment`) unless told;
+- :func:`snr_over_hours`: SNR gain over each target's listening window in order (a night across midnight one span),
+  with the band of P.372 deciles on every point (from the labelled results);
 - :func:`ranking_chart`: SNR gain bars with RDF and external-noise margin beside them;
-- :func:`site_plan`: the lot and the antennas drawn to scale (when the scenario gives them);
+- :func:`site_plan`: the site to scale (:mod:`snrgain.outputs.siteplan`), the same drawing as :func:`layout_plan`;
 - :func:`located_sources`: the directions ``snrgain locate`` fitted.
+
+Every antenna keeps one look (colour, line style and marker) and every target one hatch and hollow mark in all of
+them (:mod:`snrgain.outputs.style`).
 """
 
 from __future__ import annotations
