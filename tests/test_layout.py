@@ -174,8 +174,9 @@ def test_layout_plot_with_a_phased_array_on_the_lot(tmp_path):
     data = tomllib.loads(text)
     pr = Problem(load(data), data)
     layouts = pr.search(keep=1)
-    fixed = dict.fromkeys(name for name, _ in plan_data(pr, layouts[0])["fixed"])
-    assert "pair" in fixed
+    drawn = {a["name"]: a for a in plan_data(pr, layouts[0])["antennas"]}
+    assert [p["kind"] for p in drawn["pair"]["parts"]] == ["elements"]
+    assert len(drawn["pair"]["parts"][0]["coords"]) == 2
     path = tmp_path / "t.toml"
     path.write_text(text, encoding="utf-8")
     res = CliRunner().invoke(cli, ["layout", str(path), "--plot", str(tmp_path / "plan.png")])

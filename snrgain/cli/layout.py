@@ -71,12 +71,15 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
     if fmt == "json":
         emit_json(out)
         return
-    _print(layouts, sc)
+    from snrgain.outputs.siteplan import plan_unit
+
+    _print(layouts, sc, unit=plan_unit(data))
     if plot is not None:
         click.echo(f"wrote {plot}", err=True)
 
 
-def _print(layouts, sc) -> None:
+def _print(layouts, sc, *, unit: str = "m") -> None:
+    """The layouts as tables; feed points in the scenario's unit (feet when it writes its places in feet)."""
     import numpy as np
     from rich.console import Console
     from rich.table import Table
@@ -91,11 +94,12 @@ def _print(layouts, sc) -> None:
         t = Table(title=f"Layout {rank_no}: {each} (median SNR gain over {sc.reference.name})")
         for col in ("antenna", "feed (E, N)", "toward", "length", "target", "SNR gain"):
             t.add_column(col, justify="left" if col in ("antenna", "target") else "right")
+        k = FT_PER_M if unit == "ft" else 1.0
         for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets):
             length = "-" if d.length_m is None else f"{d.length_m:.0f} m/{d.length_m * FT_PER_M:.0f} ft"
             t.add_row(
                 d.name,
-                f"{d.east_m:.0f} m, {d.north_m:.0f} m",
+                f"{d.east_m * k:.0f} {unit}, {d.north_m * k:.0f} {unit}",
                 "-" if d.bearing_rad is None else f"{np.degrees(d.bearing_rad):.0f} deg",
                 length,
                 tgt,

@@ -38,17 +38,27 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir):
 
     The file has no scripts and loads nothing from the network; it prints cleanly.
     """
-    from snrgain.model.pipeline import evaluate
     from snrgain.outputs import report as rep
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"report: evaluating {scenario}"):
-        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, allow_long=allow_long)
+        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     with progress(None, "report: drawing the figures"):
-        html = rep.render(results)
+        html = rep.render(results, plan=plan)
     write_output(output, html, overwrite=overwrite)
+
+
+def _evaluate(scenario, *, nside, p372_dir, allow_long):
+    """The scenario's results and its site plan (:func:`snrgain.outputs.siteplan.plan_of`, from the one load)."""
+    from snrgain.model.pipeline import evaluate
+    from snrgain.outputs.siteplan import plan_of
+    from snrgain.scenario import load, read_source
+
+    data, label, base_dir = read_source(scenario)
+    sc = load(data, nside=int(nside) if nside else None, p372_dir=p372_dir, base_dir=base_dir, label=label)
+    return evaluate(sc, allow_long=allow_long), plan_of(sc, data=data)
 
 
 @click.command("figures")
@@ -74,7 +84,6 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir):
 @handle_errors
 def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
-    from snrgain.model.pipeline import evaluate
     from snrgain.outputs import plots
 
     d = Path(out_dir)
@@ -82,8 +91,8 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         raise FileNotFoundError(f"folder {d} does not exist")
     names = list(only) or list(plots.FIGURES)
     with progress(None, f"figures: evaluating {scenario}"):
-        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, allow_long=allow_long)
-    if "plan" in names and not plots.has_site_plan(results):
+        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long)
+    if "plan" in names and not plots.has_site_plan(results, plan=plan):
         if only:
             raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
         names.remove("plan")
@@ -93,7 +102,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
             for i in range(len(results.targets)):
                 jobs.append((d / f"{name}-target{i + 1}.{fmt}", plots.FIGURES[name], {"target_index": i}))
         else:
-            jobs.append((d / f"{name}.{fmt}", plots.FIGURES[name], {}))
+            jobs.append((d / f"{name}.{fmt}", plots.FIGURES[name], {"plan": plan} if name == "plan" else {}))
     existing = [str(p) for p, _, _ in jobs if p.exists()]
     if existing and not overwrite:
         raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")

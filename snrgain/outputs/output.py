@@ -269,7 +269,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
         if "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
         if loop:
-            bits.append(f"{b['shape']} {b['width_m']:g} x {b['loop_height_m']:g} m")
+            w, h = b["width_m"], b["loop_height_m"]
+            bits.append(f"{b['shape']} {w:.2f} x {h:.2f} m ({w * FT_PER_M:.1f} x {h * FT_PER_M:.1f} ft)")
         if "termination_ohm" in b:
             far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
             bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")

@@ -10,11 +10,16 @@ functions serve the command line and the report.
 
 - :func:`azimuth_pattern`: polar gain at the target's elevation, targets and local sources marked;
 - :func:`elevation_pattern`: gain against elevation toward the target's bearing;
-- :func:`noise_sky`: brightness over azimuth and elevation, per component and total;
-- :func:`snr_over_hours`: SNR gain against UTC hour, with the band of P.372 deciles (from the labelled results);
+- :func:`noise_sky`: brightness over azimuth and elevation, per component and total, interpolated on the sphere, at
+  the middle of the listening months and hours (:func:`sky_moment`) unless told;
+- :func:`snr_over_hours`: SNR gain over each target's listening window in order (a night across midnight one span),
+  with the band of P.372 deciles on every point (from the labelled results);
 - :func:`ranking_chart`: SNR gain bars with RDF and external-noise margin beside them;
-- :func:`site_plan`: the lot and the antennas drawn to scale (when the scenario gives them);
+- :func:`site_plan`: the site to scale (:mod:`snrgain.outputs.siteplan`), the same drawing as :func:`layout_plan`;
 - :func:`located_sources`: the directions ``snrgain locate`` fitted.
+
+Every antenna keeps one look (colour, line style and marker) and every target one hatch and hollow mark in all of
+them (:mod:`snrgain.outputs.style`).
 """
 
 from __future__ import annotations
@@ -23,19 +28,15 @@ from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
-from matplotlib import colormaps
 from matplotlib.figure import Figure
 
 from snrgain.model.labelled import QUANTILES
+from snrgain.outputs.style import SOURCE_MARKER, looks_of, target_looks, unwrapped
 
-REFERENCE_STYLE = {"color": "0.35", "ls": "--", "lw": 1.6}
 FLOOR_SPAN_DB = 40.0
 """Polar plots show this many dB below the strongest trace."""
-
-
-def _colors(n):
-    cmap = colormaps["tab10"]
-    return [cmap(i % 10) for i in range(n)]
+MARKS_ALONG = 12
+"""Family markers drawn along a pattern trace (so a grey print still tells the families apart)."""
 
 
 def _antennas(results):
@@ -93,21 +94,34 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     top = max(np.nanmax(np.where(np.isfinite(c), c, -np.inf)) for c in cuts.values())
     floor = np.ceil(top) - FLOOR_SPAN_DB
     theta = np.radians(fd.azimuth_deg)
-    for a, col in zip(_antennas(results), _colors(len(_antennas(results)))):
+    looks = looks_of(results)
+    every = max(1, theta.size // MARKS_ALONG)
+    for k, a in enumerate(_antennas(results)):
         r = np.clip(np.nan_to_num(cuts[a.name], neginf=floor), floor, None) - floor
-        style = REFERENCE_STYLE if a is results.reference else {"color": col, "lw": 1.8}
-        ax.plot(theta, r, label=_label(a, results), **style)
+        lk = looks[a.name]
+        ax.plot(theta, r, label=_label(a, results), marker=lk.marker, ms=5, markevery=(k % every, every), **lk.line())
     ax.set_rlim(0, FLOOR_SPAN_DB + 2)
     ticks = np.arange(0, FLOOR_SPAN_DB + 1, 10)
     ax.set_rticks(ticks)
     ax.set_yticklabels([f"{floor + t:.0f}" for t in ticks], fontsize=8)
     ax.set_rlabel_position(135)
-    for i, t in enumerate(results.targets):
+    for i, (t, tl) in enumerate(zip(results.targets, target_looks(len(results.targets)))):
         ax.annotate(
             "",
             xy=(np.radians(t["bearing_deg"]), FLOOR_SPAN_DB + 2),
             xytext=(0, 0),
             arrowprops={"arrowstyle": "->", "color": "black" if i == target_index else "0.6", "lw": 1.2},
+        )
+        ax.plot(
+            [np.radians(t["bearing_deg"])],
+            [FLOOR_SPAN_DB + 2],
+            marker=tl.marker,
+            ms=12,
+            mfc="white",
+            mec="black",
+            ls="none",
+            clip_on=False,
+            label=f"target: {t['name']}",
         )
         ax.text(
             np.radians(t["bearing_deg"]),
@@ -120,13 +134,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         )
     for s in results.local_sources:
         ax.plot(
-            [np.radians(s["bearing_deg"])],
-            [FLOOR_SPAN_DB],
-            marker="X",
-            ms=11,
-            color="crimson",
-            ls="none",
-            label=f"noise: {s['name']}",
+            [np.radians(s["bearing_deg"])], [FLOOR_SPAN_DB], ls="none", label=f"noise: {s['name']}", **SOURCE_MARKER
         )
     ax.set_title(
         f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
@@ -148,15 +156,27 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     ax.axvspan(
         tgt["elevation_min_deg"],
         max(tgt["elevation_max_deg"], tgt["elevation_min_deg"] + 0.5),
-        color="gold",
-        alpha=0.3,
+        facecolor="none",
+        edgecolor="0.72",
+        hatch=target_looks(len(results.targets))[target_index].hatch,
+        lw=0.0,
         label=f"arrivals from '{tgt['name']}'",
     )
     lows = []
-    for a, col in zip(_antennas(results), _colors(len(_antennas(results)))):
+    looks = looks_of(results)
+    every = max(1, fd.elevation_deg.size // MARKS_ALONG)
+    for k, a in enumerate(_antennas(results)):
         g = fd.elevation[a.name][target_index]
-        style = REFERENCE_STYLE if a is results.reference else {"color": col, "lw": 1.8}
-        ax.plot(fd.elevation_deg, g, label=_label(a, results), **style)
+        lk = looks[a.name]
+        ax.plot(
+            fd.elevation_deg,
+            g,
+            label=_label(a, results),
+            marker=lk.marker,
+            ms=5,
+            markevery=(k % every, every),
+            **lk.line(),
+        )
         finite = g[np.isfinite(g)]
         if finite.size:
             lows.append(finite.max())
@@ -169,42 +189,69 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
         f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz"
     )
     ax.grid(alpha=0.3)
-    ax.legend(fontsize=8, loc="lower right", ncols=2)
+    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     if own:
         fig.tight_layout()
     return fig
 
 
 def _sky_grid(comp, az_edges, el_edges):
-    """Brightness temperature [K] of a diffuse component on a regular az/el grid (nearest pixel)."""
+    """Brightness temperature [K] of a diffuse component at the centres of a regular az/el grid, interpolated on the
+    sphere (healpy's bilinear interpolation between the four nearest pixel centres), not looked up pixel by pixel.
+
+    Pixels centred below the horizon hold no brightness; each takes the value of its mirror image above the
+    horizon, so the interpolation just above 0 deg is not pulled toward zero (which drew a dotted row there)."""
     import healpy as hp
 
     from noisemodels.sphere import to_healpy_angles
 
     d = comp.directions
+    npix = hp.nside2npix(d.nside)
+    full = np.full(npix, np.nan)
+    up = hp.ang2pix(d.nside, *to_healpy_angles(d.azimuth_rad, d.elevation_rad))
+    full[up] = comp.weight_k_sr / d.solid_angle_sr
+    theta, phi = hp.pix2ang(d.nside, np.arange(npix))
+    below = np.isnan(full)
+    mirror = hp.ang2pix(d.nside, np.pi - theta[below], phi[below])  # the same bearing, elevation reflected
+    full[below] = np.nan_to_num(full[mirror])
     az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
     el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
     A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
-    pix = hp.ang2pix(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
-    full = np.zeros(hp.nside2npix(d.nside))
-    up = hp.ang2pix(d.nside, *to_healpy_angles(d.azimuth_rad, d.elevation_rad))
-    full[up] = comp.weight_k_sr / d.solid_angle_sr
-    return full[pix].reshape(A.shape)
+    return hp.get_interp_val(full, *to_healpy_angles(A.ravel(), E.ravel())).reshape(A.shape)
 
 
-def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only: bool = False, ax=None):
-    """Brightness of each diffuse noise component and of their total over azimuth and elevation.
+def sky_moment(results) -> tuple[int, int]:
+    """The month and hour the sky figure shows unless told (indices into ``results.months`` and
+    ``results.utc_hours``): the middle of the listening months and of the listening hours, each in listening
+    order (months 11, 12, 1: 12; hours 22, 0, 2, 4, 6: 2 UTC)."""
+    from snrgain.outputs.style import listening_order
+
+    months = listening_order(results.months, 12)
+    hours = listening_order(results.utc_hours, 24)
+    return results.months.index(months[(len(months) - 1) // 2]), results.utc_hours.index(hours[len(hours) // 2])
+
+
+def noise_sky(
+    results, *, month_index: int | None = None, hour_index: int | None = None, total_only: bool = False, ax=None
+):
+    """Brightness of each diffuse noise component and of their total over azimuth and elevation, interpolated on
+    the sphere; at the month and hour given (indices), else at :func:`sky_moment` (the report's), named in the title.
 
     ``ax``: one Axes with ``total_only``, else a sequence of one Axes per diffuse component plus one.
     """
+    from matplotlib.patches import Rectangle
+
     own = ax is None
+    m0, h0 = sky_moment(results)
+    month_index = m0 if month_index is None else month_index
+    hour_index = h0 if hour_index is None else hour_index
     if results.noise.maps is None:
         raise ValueError("these results carry no sky maps")
     comps = results.noise.maps[(month_index, hour_index)]
     diffuse = [c for c in comps if c.directions.nside is not None]
     compact = [c for c in comps if c.directions.nside is None]
-    az_edges = np.arange(0, 361, 2.0)
-    el_edges = np.arange(0, 91, 1.5)
+    az_edges = np.arange(0, 361, 1.0)
+    el_edges = np.arange(0, 90.1, 0.5)
     maps = [(c.name, _sky_grid(c, az_edges, el_edges)) for c in diffuse]
     total = sum(m for _, m in maps) if maps else np.zeros((el_edges.size - 1, az_edges.size - 1))
     panels = (
@@ -222,6 +269,9 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
+            # below the scale: its floor; no noise at all from there (the model sends none): grey, said in the title
+            db = np.ma.masked_where(m <= 0, np.clip(db, vmin, None))
+            ax.set_facecolor("0.82")
             mesh = ax.pcolormesh(
                 az_edges, el_edges, db, vmin=vmin, vmax=vmax, cmap="magma", shading="flat", rasterized=True
             )
@@ -230,14 +280,20 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
             ax.text(180, 45, "none reaches the ground (screened by the ionosphere)", ha="center", va="center")
         ax.set_ylabel("elevation (deg)")
         ax.set_title(name, fontsize=10, loc="left")
-        for t in results.targets:
-            ax.plot([t["bearing_deg"]] * 2, [t["elevation_min_deg"], t["elevation_max_deg"]], color="cyan", lw=3)
-            ax.text(t["bearing_deg"] + 2, t["elevation_max_deg"] + 2, t["name"], color="cyan", fontsize=8)
+        for t, tl in zip(results.targets, target_looks(len(results.targets))):
+            lo, hi = t["elevation_min_deg"], t["elevation_max_deg"]
+            ax.add_patch(
+                Rectangle(
+                    (t["bearing_deg"] - 4, lo), 8, max(hi - lo, 0.5), fill=False, ec="white", hatch=tl.hatch, lw=1.2
+                )
+            )
+            ax.plot([t["bearing_deg"]], [hi], marker=tl.marker, mfc="white", mec="black", ms=10, ls="none")
+            ax.text(t["bearing_deg"] + 5, hi + 2, t["name"], color="white", fontsize=8)
         for c in compact:
             az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
             el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
-            ax.plot([az], [el], marker="X", color="lime", ms=10, ls="none")
-            ax.text(az + 2, el + 3, c.name, color="lime", fontsize=8)
+            ax.plot([az], [el], ls="none", **SOURCE_MARKER)
+            ax.text(az + 2, el + 3, c.name, color="white", fontsize=8)
         ax.set_ylim(0, 90)
     axes[-1].set_xlabel("azimuth (compass bearing, deg)")
     axes[-1].set_xticks(np.arange(0, 361, 45))
@@ -245,7 +301,8 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
     hour = results.utc_hours[hour_index]
     title = (
         f"Noise sky at {results.site['name']}, month {month}, {hour:g} UTC, {results.freq_hz / 1e6:g} MHz\n"
-        "(brightness temperature; crosses: local sources, cyan: targets)"
+        "(the middle of the listening months and hours unless chosen; brightness temperature, interpolated on the "
+        "sphere;\ngrey: no noise arrives from there; crosses: local sources; hatched boxes: targets)"
     )
     if own:
         fig.suptitle(title, fontsize=11)
@@ -259,15 +316,12 @@ def noise_sky(results, *, month_index: int = 0, hour_index: int = 0, total_only:
     return fig
 
 
-def _with_gaps(hours, values):
-    """Hours and values sorted by hour, with NaN put where listed hours lie more than 1.5 times their usual
-    (median) step apart, so that no line crosses hours nobody listens at."""
-    h = np.asarray(hours, dtype=float)
+def _window(x, values):
+    """Positions and values of one target's listening window, with NaN put where listed positions lie more than
+    1.5 times their usual (median) step apart, so that no line crosses hours nobody listens at (two windows in
+    one day stay two spans)."""
+    h = np.asarray(x, dtype=float)
     v = np.asarray(values, dtype=float)
-    order = np.argsort(h)
-    h, v = h[order], v[order]
-    keep = np.isfinite(v)
-    h, v = h[keep], v[keep]
     if h.size < 2:
         return h, v
     d = np.diff(h)
@@ -282,9 +336,19 @@ def _with_gaps(hours, values):
     return np.array(out_h), np.array(out_v)
 
 
+def target_window(ds, target_index: int) -> tuple[list[float], np.ndarray]:
+    """The UTC hours one target is listened at, in listening order (a night across midnight: 22, 23, 0 ... 6),
+    and their positions on an axis that runs past 24 so the night is one span (22, 23, 24 ... 30)."""
+    gains = ds["snr_gain_db"].isel(target=target_index).values  # antenna, month, hour
+    listened = np.any(np.isfinite(gains), axis=(0, 1))
+    hours = [float(h) for h, keep in zip(ds["utc_hour"].values, listened) if keep]
+    return unwrapped(hours, 24.0)
+
+
 def snr_over_hours(results, *, ax=None):
     """SNR gain over the reference against UTC hour, one panel per target (mean over its months), with the band of
-    atmospheric noise at its P.372 deciles; gaps where the target is not listened for.
+    atmospheric noise at its P.372 deciles on every point.  Each panel's axis runs over the target's own listening
+    window in its order, starting where the window starts: a night across midnight is one continuous span.
 
     The numbers are read from the labelled results (:meth:`Results.to_xarray`: ``snr_gain_db`` and
     ``snr_gain_atmospheric_deciles_db`` by antenna, target, month and UTC hour); ``results`` may be that Dataset
@@ -293,33 +357,41 @@ def snr_over_hours(results, *, ax=None):
     own = ax is None
     ds = results.to_xarray() if hasattr(results, "to_xarray") else results
     nt = ds.sizes["target"]
-    fig, axes = _axes(ax, n=nt, figsize=(8.5, 3.2 * nt + 1.0), sharex=True)
-    hours = ds["utc_hour"].values
+    fig, axes = _axes(ax, n=nt, figsize=(8.5, 3.2 * nt + 1.0))
     atm = False
+    looks = looks_of(ds)
+    names = [str(n) for n in ds["antenna"].values]
     candidates = [k for k, ref in enumerate(ds["is_reference"].values) if not ref]
-    colors = _colors(len(candidates))
+    ref_name = names[int(np.flatnonzero(ds["is_reference"].values)[0])]
     for i, axi in enumerate(axes):
-        for k, col in zip(candidates, colors):
-            gain = ds["snr_gain_db"].isel(antenna=k, target=i)
-            if not np.any(np.isfinite(gain.values)):
+        order, x = target_window(ds, i)
+        for k in candidates:
+            lk = looks[names[k]]
+            gain = ds["snr_gain_db"].isel(antenna=k, target=i).mean("month")
+            v = gain.sel(utc_hour=order).values if order else np.array([])
+            if not np.any(np.isfinite(v)):
                 continue
-            h, v = _with_gaps(hours, gain.mean("month").values)
-            axi.plot(h, v, marker="o", ms=4, color=col, label=str(ds["antenna"].values[k]))
+            xs, vs = _window(x, v)
+            axi.plot(xs, vs, marker=lk.marker, ms=5, label=names[k], **lk.line())
             band = ds["snr_gain_atmospheric_deciles_db"].isel(antenna=k, target=i).mean("month")
-            if np.any(np.isfinite(band.values)):
+            hi = band.sel(atmospheric_decile="upper", utc_hour=order).values
+            lo = band.sel(atmospheric_decile="lower", utc_hour=order).values
+            if np.any(np.isfinite(hi)):
                 atm = True
-                h1, v_hi = _with_gaps(hours, band.sel(atmospheric_decile="upper").values)
-                _, v_lo = _with_gaps(hours, band.sel(atmospheric_decile="lower").values)
-                axi.fill_between(h1, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=col, alpha=0.15)
-        axi.axhline(0.0, **REFERENCE_STYLE, label=f"{ds.attrs['reference']} (reference)")
+                _, v_hi = _window(x, hi)
+                _, v_lo = _window(x, lo)
+                axi.fill_between(xs, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=lk.color, alpha=0.15, lw=0)
+                axi.vlines(x, np.fmin(hi, lo), np.fmax(hi, lo), color=lk.color, lw=1.0, alpha=0.7)
+        axi.axhline(0.0, label=f"{ref_name} (reference)", **looks[ref_name].line())
         axi.set_ylabel("SNR gain (dB)")
         axi.set_title(f"toward {ds['target'].values[i]}", fontsize=10, loc="left")
         axi.grid(alpha=0.3)
-    axes[0].legend(fontsize=8, ncols=2)
-    axes[-1].set_xlabel("UTC hour")
-    axes[-1].set_xticks(np.arange(0, 25, 2))
-    axes[-1].set_xlim(-0.5, 24)
-    band = "; bands: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
+        if len(x):
+            axi.set_xticks(x, [f"{h:g}" for h in order])
+            axi.set_xlim(x[0] - 0.5, x[-1] + 0.5)
+        axi.set_xlabel("UTC hour (the target's listening window, in order)")
+    axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
+    band = "; bands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
     title = f"SNR gain over the reference through the hours, {ds.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
         fig.suptitle(title, fontsize=10)
@@ -351,42 +423,51 @@ def ranking_chart(results, *, ax=None):
         sharey=True,
         width_ratios=[2, 1.2, 1],
     )
-    tcol = _colors(nt)
-    for ti, t in enumerate(targets):
-        off = (ti - (nt - 1) / 2) * h
+    looks = looks_of(ds)
+    colors = [looks[n].color for n in names]
+    for ti, (t, tl) in enumerate(zip(targets, target_looks(nt))):
+        off = ((nt - 1) / 2 - ti) * h  # the first target on top, as the legend lists them
         lo, med, hi = (quantiles.isel(target=ti).sel(quantile=q).values for q in QUANTILES)
-        axes[0].barh(y + off, med, height=h, color=tcol[ti], label=t, alpha=0.85)
+        bars = {"height": h, "color": colors, "edgecolor": "black", "hatch": tl.hatch, "lw": 0.6}
+        axes[0].barh(y + off, med, alpha=0.85, **bars)
+        axes[0].bar(0, 0, color="white", edgecolor="black", hatch=tl.hatch, label=t)  # the target's legend swatch
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
-        axes[1].barh(y + off, cands["rdf_db"].isel(target=ti).values, height=h, color=tcol[ti])
-        for yi, v, top in zip(y + off, med, hi):
-            axes[0].text(max(top, 0), yi, f"  {v:+.1f}", va="center", fontsize=7)
-        k = names.index(str(ds["best"].values[ti]))
-        axes[0].plot(
-            [med[k]],
-            [y[k] + off],
-            marker="*",
-            color="gold",
-            ms=12,
-            markeredgecolor="black",
-            ls="none",
-            label="best" if ti == 0 else None,
-        )
+        axes[1].barh(y + off, cands["rdf_db"].isel(target=ti).values, **bars)
+        best = names.index(str(ds["best"].values[ti]))
+        for k, (yi, v, top) in enumerate(zip(y + off, med, hi)):
+            axes[0].text(
+                max(top, 0),
+                yi,
+                f"  {v:+.1f}" + ("  best" if k == best else ""),
+                va="center",
+                fontsize=7,
+                fontweight="bold" if k == best else "normal",
+            )
+    lo_x, hi_x = axes[0].get_xlim()
+    axes[0].set_xlim(lo_x, hi_x + 0.25 * (hi_x - lo_x))  # room for the values and "best" beside the bars
     axes[0].axvline(0, color="0.3", lw=1)
     axes[0].set_yticks(y, names)
-    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %")
-    axes[0].set_title("SNR gain per target", fontsize=10)
+    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %; best: the best toward that target")
+    axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10)
     axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
     axes[1].set_title("RDF per target", fontsize=10)
     target = ds.attrs["margin_target_db"]
     margin = cands["margin_db"].min(("month", "utc_hour")).values
-    axes[2].barh(y, margin, height=0.6, color=["darkorange" if m < target else "slategray" for m in margin])
-    axes[2].axvline(target, color="crimson", ls=":", label=f"target {target:g} dB")
+    axes[2].barh(
+        y,
+        margin,
+        height=0.6,
+        color=colors,
+        edgecolor=["black" if m < target else "none" for m in margin],
+        lw=1.5,
+    )
+    axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
     for yi, v in zip(y, margin):
-        axes[2].text(v, yi, f" {v:.1f}", va="center", fontsize=8)
+        axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
     axes[2].set_xlabel("margin over the chain's floor (dB)")
-    axes[2].set_title("External-noise margin (worst hour)", fontsize=10)
+    axes[2].set_title("External-noise margin (worst hour; '!' below target)", fontsize=10)
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
@@ -398,38 +479,134 @@ def ranking_chart(results, *, ax=None):
     return fig
 
 
-def has_site_plan(results) -> bool:
-    """Whether the results give a lot outline or antenna positions to draw."""
-    return bool(results.lot_m or any("position_m" in a.parameters for a in _antennas(results)))
+def has_site_plan(results, *, plan: dict | None = None) -> bool:
+    """Whether there is a site plan to draw: a lot outline or an antenna with a place."""
+    from snrgain.outputs.siteplan import has_plan, plan_from_results
+
+    return has_plan(plan if plan is not None else plan_from_results(results))
 
 
-def site_plan(results, *, ax=None):
-    """The lot outline and each antenna to scale: wires from their feed point along their bearing."""
-    if not has_site_plan(results):
+def site_plan(results, *, plan: dict | None = None, ax=None):
+    """The site to scale: the lot, keep-out areas, the transmitting vertical and its clearance, placed noise sources,
+    every antenna as built (wires from their feed points, array elements, combinations joined to their members),
+    wires off the lot and crossings marked; in the scenario's unit.
+
+    ``plan``: :func:`snrgain.outputs.siteplan.plan_of` of the scenario (the command line passes it); without it,
+    what ``results`` alone give (the lot and the antennas' positions, in metres)."""
+    from snrgain.outputs.siteplan import plan_from_results
+
+    if plan is None:
+        plan = plan_from_results(results)
+    if not has_site_plan(results, plan=plan):
         raise ValueError("the scenario gives no lot outline ([site] lot) and no antenna positions (position = [e, n])")
+    return _draw_plan(plan, looks_of(results), f"Site plan, {plan['site']}", ax=ax)
+
+
+def layout_plan(plan: dict, *, ax=None):
+    """A layout on the lot (the site plan with the placed candidates where the layout puts them, each with the SNR
+    gain it reaches).  ``plan`` is :func:`snrgain.tools.layout.plan_data`."""
+    from snrgain.outputs.style import antenna_looks
+
+    looks = antenna_looks([a["name"] for a in plan["antennas"]], [a["family"] for a in plan["antennas"]])
+    return _draw_plan(plan, looks, f"Layout, {plan['site']}", ax=ax)
+
+
+def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
+    """Draw a site plan (:mod:`snrgain.outputs.siteplan`) with the antennas' looks."""
+    from matplotlib.patches import Circle
+
     own = ax is None
-    fig, (ax,) = _axes(ax, figsize=(7.5, 7.5))
-    lot = results.lot_m
-    if lot:
-        xs, ys = zip(*(list(lot) + [lot[0]]))
-        ax.fill(xs, ys, color="honeydew", ec="darkgreen", lw=1.5, label="lot")
-    for a, col in zip(_antennas(results), _colors(len(_antennas(results)))):
-        p = a.parameters.get("position_m")
-        if p is None:
-            continue
-        x0, y0 = p
-        length = a.parameters.get("length_m")
-        bearing = a.parameters.get("bearing_deg")
-        if length is not None and bearing is not None:
-            b = np.radians(bearing)
-            x1, y1 = x0 + length * np.sin(b), y0 + length * np.cos(b)
-            ax.plot([x0, x1], [y0, y1], color=col, lw=2.5, label=f"{a.name} ({length:.0f} m toward {bearing:.0f} deg)")
-            ax.plot([x0], [y0], marker="s", color=col, ms=7)
-        else:
-            ax.plot([x0], [y0], marker="^", color=col, ms=10, ls="none", label=a.name)
+    fig, (ax,) = _axes(ax, figsize=(8.0, 8.0))
+    unit, k = plan["unit"], plan["per_m"]
+
+    def xy(points):
+        pts = np.asarray(points, dtype=float) * k
+        return pts[:, 0], pts[:, 1]
+
+    if plan["lot"]:
+        xs, ys = xy(list(plan["lot"]) + [plan["lot"][0]])
+        ax.fill(xs, ys, color="#EEF6EE", ec="#2E6B2E", lw=1.5, label="lot", zorder=0)
+    for i, (name, pts) in enumerate(plan["keep_out"]):
+        kx, ky = xy(list(pts) + [pts[0]])
+        ax.fill(kx, ky, color="0.78", ec="0.3", lw=1, label="keep out" if i == 0 else None, zorder=1)
+        ax.annotate(name, (float(np.mean(kx[:-1])), float(np.mean(ky[:-1]))), ha="center", va="center", fontsize=8)
+    if plan["tx"] is not None and plan["clearance_m"]:
+        c = plan["clearance_m"]
+        how = "given" if plan["clearance_given"] else "half a wavelength"
+        ax.add_patch(
+            Circle(
+                tuple(np.asarray(plan["tx"]) * k),
+                c * k,
+                fill=False,
+                ls=":",
+                color="black",
+                lw=1.2,
+                label=f"clearance of {plan['tx_name']}: {c * k:.0f} {unit} ({how})",
+            )
+        )
+    for name, pos in plan["sources"]:
+        ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
+    for a in plan["antennas"]:
+        lk = looks[a["name"]]
+        label = a["name"] + (" (reference)" if a["reference"] else "")
+        for p in a["parts"]:
+            px, py = xy(p["coords"])
+            if p["kind"] == "wire":
+                length = float(np.hypot(px[1] - px[0], py[1] - py[0]))
+                bearing = float(np.degrees(np.arctan2(px[1] - px[0], py[1] - py[0])) % 360)
+                label += f": {length:.0f} {unit} toward {bearing:.0f} deg"
+                ax.plot(px, py, label=label, zorder=4, **lk.line())
+                ax.plot(px[:1], py[:1], marker=lk.marker, color=lk.color, ms=8, mec="black", ls="none", zorder=5)
+                ax.annotate(
+                    "",
+                    xy=(px[0] + 0.62 * (px[1] - px[0]), py[0] + 0.62 * (py[1] - py[0])),
+                    xytext=(px[0] + 0.5 * (px[1] - px[0]), py[0] + 0.5 * (py[1] - py[0])),
+                    arrowprops={"arrowstyle": "-|>", "color": lk.color, "lw": 2, "mutation_scale": 16},
+                    zorder=5,
+                )
+            elif p["kind"] == "elements":
+                ax.plot(px, py, color=lk.color, ls=lk.linestyle, lw=0.8, zorder=4)
+                ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=8, ls="none", label=label, zorder=5)
+            elif p["kind"] == "unit":
+                for fx, fy in a.get("member_feeds", []):
+                    ax.plot([px[0], fx * k], [py[0], fy * k], color=lk.color, ls=lk.linestyle, lw=1.4, zorder=3)
+                ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=9, ls="none", zorder=5)
+                joined = " and ".join(a["members"])
+                ax.plot([], [], marker=lk.marker, mec="black", label=f"{label}: combines {joined}", **lk.line())
+            else:
+                ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=10, ls="none", label=label, zorder=5)
+            label = None
+        if a.get("note") and label is None:
+            ax.plot([], [], ls="none", label=f"    {a['note']}")
+    for i, o in enumerate(plan["off_lot"]):
+        ox, oy = xy(o["coords"])
+        ax.plot(
+            ox,
+            oy,
+            color="black",
+            lw=7,
+            alpha=0.3,
+            marker="o" if len(ox) == 1 else None,
+            ms=16,
+            solid_capstyle="butt",
+            label="off the lot" if i == 0 else None,
+            zorder=2,
+        )
+    for i, c in enumerate(plan["crossings"]):
+        ax.plot(
+            *xy([c["at"]]),
+            marker="o",
+            ms=16,
+            mfc="none",
+            mec="black",
+            mew=2,
+            ls="none",
+            label="wires cross" if i == 0 else None,
+            zorder=6,
+        )
     ax.set_aspect("equal")
-    ax.set_xlabel("east (m)")
-    ax.set_ylabel("north (m)")
+    ax.set_xlabel(f"east ({unit})")
+    ax.set_ylabel(f"north ({unit})")
     ax.grid(alpha=0.3)
     x_lo, x_hi = ax.get_xlim()
     y_lo, y_hi = ax.get_ylim()
@@ -442,61 +619,8 @@ def site_plan(results, *, ax=None):
         fontweight="bold",
         arrowprops={"arrowstyle": "->", "lw": 2},
     )
-    ax.set_title(f"Site plan, {results.site['name']} (squares: feed points)")
-    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.1), ncols=1, frameon=False)
-    if own:
-        fig.tight_layout()
-    return fig
-
-
-def layout_plan(plan: dict, *, ax=None):
-    """A layout on the lot: the outline, keep-out areas, the transmitting vertical with its clearance circle,
-    placed noise sources, the other antennas, and each placed antenna from its feed point with an arrow along its
-    bearing.  ``plan`` is :func:`snrgain.tools.layout.plan_data`."""
-    from matplotlib.patches import Circle
-
-    own = ax is None
-    fig, (ax,) = _axes(ax, figsize=(7.5, 7.5))
-    xs, ys = zip(*(list(plan["lot"]) + [plan["lot"][0]]))
-    ax.fill(xs, ys, color="honeydew", ec="darkgreen", lw=1.5, label="lot")
-    for i, (name, pts) in enumerate(plan["keep_out"]):
-        kx, ky = zip(*(list(pts) + [pts[0]]))
-        ax.fill(kx, ky, color="lightgrey", ec="dimgrey", hatch="//", lw=1, label="keep out" if i == 0 else None)
-        ax.annotate(name, (float(np.mean(kx[:-1])), float(np.mean(ky[:-1]))), ha="center", va="center", fontsize=8)
-    if plan.get("tx") is not None:
-        ax.plot(*plan["tx"], marker="*", color="black", ms=14, ls="none", label="transmitting vertical")
-        ax.add_patch(Circle(plan["tx"], plan["clearance_m"], fill=False, ls=":", color="black", lw=1))
-    for name, (e, n) in plan["sources"]:
-        ax.plot([e], [n], marker="X", color="crimson", ms=11, ls="none", label=f"noise: {name}")
-    for name, coords in plan["fixed"]:
-        cx, cy = zip(*coords)
-        ax.plot(cx, cy, color="grey", lw=1.5, marker="s" if len(coords) > 1 else "^", ms=5, label=f"{name} (fixed)")
-    for c, col in zip(plan["layout"]["candidates"], _colors(len(plan["layout"]["candidates"]))):
-        e, n = c["position_m"]
-        b = None if c["bearing_deg"] is None else np.radians(c["bearing_deg"])
-        length = c["length_m"] or 0.0
-        label = f"{c['name']}: {c['snr_gain_db']:+.1f} dB toward {c['target']}"
-        if length and b is not None:
-            x1, y1 = e + length * np.sin(b), n + length * np.cos(b)
-            ax.plot([e, x1], [n, y1], color=col, lw=2.5, label=label)
-            ax.plot([e], [n], marker="s", color=col, ms=7)
-        else:
-            ax.plot([e], [n], marker="^", color=col, ms=10, ls="none", label=label)
-        if b is None:
-            continue
-        mid, arrow = 0.5 * length, 12.0  # a direction mark on the wire (or from a compact antenna)
-        ax.annotate(
-            "",
-            xy=(e + (mid + arrow) * np.sin(b), n + (mid + arrow) * np.cos(b)),
-            xytext=(e + mid * np.sin(b), n + mid * np.cos(b)),
-            arrowprops={"arrowstyle": "-|>", "color": col, "lw": 2, "mutation_scale": 18},
-        )
-    ax.set_aspect("equal")
-    ax.set_xlabel("east (m)")
-    ax.set_ylabel("north (m)")
-    ax.grid(alpha=0.3)
-    ax.set_title(f"Layout, {plan['site']} (squares: feed points; arrowheads: favoured direction)")
-    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.1), ncols=1, frameon=False)
+    ax.set_title(f"{title} (marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10)
+    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
     if own:
         fig.tight_layout()
     return fig

@@ -16,6 +16,7 @@ import numpy as np
 
 from snrgain.outputs import plots
 from snrgain.outputs.output import ground_text
+from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import s_units
 
 SAFETY = [
@@ -78,6 +79,8 @@ th { background: #eef5ee; } td.name, th.name { text-align: left; }
 tr.ref td { color: #555; font-style: italic; } td.warn { color: #b00; font-weight: bold; }
 figure { margin: 1em 0; page-break-inside: avoid; } figure svg { max-width: 100%; height: auto; }
 figcaption { font-size: 0.9em; color: #444; }
+.swatch { display: inline-block; width: 0.9em; height: 0.9em; margin-right: 0.4em; vertical-align: -0.1em;
+  border: 1px solid #000; print-color-adjust: exact; -webkit-print-color-adjust: exact; }
 .note { font-size: 0.9em; color: #444; } .safety li { margin-bottom: 0.4em; }
 @media print { body { margin: 0.5cm; max-width: none; } h2 { page-break-after: avoid; } }
 """
@@ -106,8 +109,8 @@ def _summary(r) -> str:
         ("Site", f"{_e(r.site['name'])}, {r.site['latitude_deg']:.3f}&deg;, {r.site['longitude_deg']:.3f}&deg;"),
         ("Ground", _e(ground_text(r.site))),
         ("Band", f"{r.freq_hz / 1e6:g} MHz, {r.bandwidth_hz:g} Hz bandwidth"),
-        ("Months", ", ".join(str(m) for m in r.months)),
-        ("UTC hours", ", ".join(f"{h:g}" for h in r.utc_hours)),
+        ("Months", ", ".join(str(m) for m in listening_order(r.months, 12))),
+        ("UTC hours", ", ".join(f"{h:g}" for h in listening_order(r.utc_hours, 24))),
         (
             "Receiver",
             f"noise figure {r.receiver['noise_figure_db']:.1f} dB; chain noise figure "
@@ -151,12 +154,13 @@ def _summary(r) -> str:
 def _ranking(r) -> str:
     """One table per target (its own ranking, best first) and a line naming the best with its margin."""
     out = []
+    looks = looks_of(r)
     for i, (t, tr) in enumerate(zip(r.targets, r.target_results)):
-        hours = ", ".join(f"{h:g}" for h in t["utc_hours"])
+        hours = ", ".join(f"{h:g}" for h in listening_order(t["utc_hours"], 24))
         out.append(
             f"<h3>{_e(t['name'])}</h3><p class='note'>Bearing {t['bearing_deg']:.0f}&deg;, elevations "
             f"{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}&deg;; months "
-            f"{', '.join(str(m) for m in t['months'])}; UTC hours {hours}.</p>"
+            f"{', '.join(str(m) for m in listening_order(t['months'], 12))}; UTC hours {hours}.</p>"
         )
         head = [
             "#",
@@ -190,7 +194,7 @@ def _ranking(r) -> str:
             ref = a is r.reference
             cells = [
                 rank,
-                f"<td class='name'>{_e(a.name)}</td>",
+                f"<td class='name'>{_swatch(looks, a.name)}{_e(a.name)}</td>",
                 "0" if ref else _f(a.snr_gain_median_db[i]),
                 "&ndash;" if ref else f"{_f(a.snr_gain_p10_db[i])} to {_f(a.snr_gain_p90_db[i])}",
                 "&ndash;" if ref else f"{100 * a.probability_beats[i]:.0f} %",
@@ -231,6 +235,12 @@ def _ranking(r) -> str:
     return "\n".join(out)
 
 
+def _swatch(looks, name) -> str:
+    """The antenna's colour as in every figure (snrgain.outputs.style), before its name in the tables."""
+    lk = looks.get(name)
+    return "" if lk is None else f"<span class='swatch' style='background:{lk.color}'></span>"
+
+
 def _spread_words(r) -> str:
     from snrgain.outputs.output import spread_note
 
@@ -242,6 +252,7 @@ def _plan(r) -> str:
     from snrgain.outputs.output import also_build
 
     p = r.plan
+    looks = looks_of(r)
     if not p.antennas:
         return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
     out = [
@@ -250,7 +261,7 @@ def _plan(r) -> str:
     ]
 
     out += [
-        f"<li>{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
+        f"<li>{_swatch(looks, n)}{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
     ]
     out.append(
@@ -260,8 +271,9 @@ def _plan(r) -> str:
     for t, rows in sorted(p.by_target.items()):
         for s in rows:
             out.append(
-                f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td><td class='name'>{_e(s.antenna)}</td>"
-                f"<td class='name'>{', '.join(f'{h:g}' for h in s.utc_hours)}</td>"
+                f"<tr><td class='name'>{_e(r.targets[t]['name'])}</td>"
+                f"<td class='name'>{_swatch(looks, s.antenna)}{_e(s.antenna)}</td>"
+                f"<td class='name'>{', '.join(f'{h:g}' for h in listening_order(s.utc_hours, 24))}</td>"
                 f"<td>{_f(s.snr_gain_db)}</td></tr>"
             )
     out.append("</table>")
@@ -272,61 +284,81 @@ def _plan(r) -> str:
 def _build(r) -> str:
     from snrgain.outputs.output import build_lines
 
-    items = "".join(f"<li><b>{_e(name)}</b>: {_e(text)}</li>" for name, text in build_lines(r))
+    looks = looks_of(r)
+    items = "".join(f"<li>{_swatch(looks, name)}<b>{_e(name)}</b>: {_e(text)}</li>" for name, text in build_lines(r))
     return (
         "<p class='note'>Resistors: the nearest E12 value (IEC 60063) beside the computed one; turns ratio: "
         f"antenna side over coax side.</p><ul>{items}</ul>"
     )
 
 
-def figure_list(r) -> list[tuple[str, object, str]]:
-    """(title, figure, caption) for every figure of the report."""
+def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]:
+    """(title, figure, caption) for every figure of the report; ``plan``: the scenario's site plan
+    (:func:`snrgain.outputs.siteplan.plan_of`), else what the results alone give."""
     figs = []
     for i, t in enumerate(r.targets):
         figs.append(
             (
                 f"Azimuth pattern toward {t['name']}",
                 plots.azimuth_pattern(r, target_index=i),
-                "Gain of each antenna at the target's elevation; arrows mark targets, crosses local noise sources.",
+                "Gain of each antenna at the target's elevation (one colour per antenna, one line style and marker per "
+                "family, as in every figure); arrows and hollow marks show targets, black crosses local noise sources.",
             )
         )
         figs.append(
             (
                 f"Elevation pattern toward {t['name']}",
                 plots.elevation_pattern(r, target_index=i),
-                "Gain against elevation toward the target's bearing; the shaded band is where its signals arrive.",
+                "Gain against elevation toward the target's bearing; the hatched band (the target's hatching) is where "
+                "its signals arrive.",
             )
         )
-    hour_index = len(r.utc_hours) // 2
+    month_index, hour_index = plots.sky_moment(r)
     figs.append(
         (
             "Noise sky",
-            plots.noise_sky(r, hour_index=hour_index),
-            f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC, month {r.months[0]}.",
+            plots.noise_sky(r, month_index=month_index, hour_index=hour_index),
+            f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC in month "
+            f"{r.months[month_index]} (the middle of the listening months and hours), interpolated on the sphere "
+            "between the model's pixels; grey where no noise arrives.",
         )
     )
     figs.append(
         (
             "SNR gain over the hours",
             plots.snr_over_hours(r),
-            "Per target, mean over its months; bands show atmospheric noise at its P.372 deciles where included; "
-            "gaps where a target is not listened for.",
+            "Per target, mean over its months, over its own listening window in order (a night across midnight "
+            "is one span); bands and bars show atmospheric noise at its P.372 deciles where included.",
         )
     )
     figs.append(
         (
             "Ranking",
             plots.ranking_chart(r),
-            "Median SNR gain per target with its 10-90 % band; RDF per target; margin of external noise.",
+            "Median SNR gain per target with its 10-90 % band (colour: the antenna, as in every figure; hatching: "
+            "the target); RDF per target; margin of external noise.",
         )
     )
-    if plots.has_site_plan(r):
-        figs.append(("Site plan", plots.site_plan(r), "The lot and the antennas to scale."))
+    if plots.has_site_plan(r, plan=plan):
+        unit = (plan or {}).get("unit", "m")
+        figs.append(
+            (
+                "Site plan",
+                plots.site_plan(r, plan=plan),
+                f"The lot, keep-out areas, the transmitting vertical's clearance, placed noise sources and every "
+                f"antenna as built, to scale in {'feet' if unit == 'ft' else 'metres'}; wires off the lot and "
+                "crossings marked."
+                if plan is not None
+                else "The lot and the antennas with a position, to scale in "
+                "metres (keep-outs and placed sources are drawn when the scenario is given).",
+            )
+        )
     return figs
 
 
-def render(results, *, title: str | None = None) -> str:
-    """The report as one HTML document (a string)."""
+def render(results, *, title: str | None = None, plan: dict | None = None) -> str:
+    """The report as one HTML document (a string); ``plan``: the scenario's site plan
+    (:func:`snrgain.outputs.siteplan.plan_of`; the command line passes it)."""
     r = results
     title = title or f"snrgain report: {r.site['name']}"
     parts = [
@@ -345,7 +377,7 @@ def render(results, *, title: str | None = None) -> str:
         _build(r),
         "<h2 id='figures'>Figures</h2>",
     ]
-    for i, (name, fig, caption) in enumerate(figure_list(r)):
+    for i, (name, fig, caption) in enumerate(figure_list(r, plan=plan)):
         parts.append(
             f"<figure id='figure-{i + 1}'>{_svg(fig)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
             "</figcaption></figure>"

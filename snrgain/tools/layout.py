@@ -415,30 +415,18 @@ class Problem:
 
 
 def plan_data(problem: Problem, layout: Layout) -> dict:
-    """What :func:`snrgain.outputs.plots.layout_plan` draws: the lot, keep-outs, the TX vertical and its clearance, the
-    placed sources, the fixed antennas and the layout."""
-    sc = problem.sc
-    fixed = []
-    for a in sc.candidates:
-        if a.name in problem.names:
-            continue
-        shape = footprint(a)
-        if shape is None:
-            continue
-        parts = getattr(shape, "geoms", [shape])  # an array's elements are a multi-part footprint
-        for part in parts:
-            if part.geom_type in ("Point", "LineString"):
-                fixed.append((a.name, list(part.coords)))
-    return {
-        "site": sc.site.name,
-        "lot": list(sc.site.lot_m),
-        "keep_out": [(n, list(p)) for n, p in sc.site.keep_out],
-        "tx": None if problem.tx is None else tuple(problem.ref_m),
-        "clearance_m": problem.clearance,
-        "sources": [(s.name, s.position_m) for s in problem.placed],
-        "fixed": fixed,
-        "layout": as_dict([layout])["layouts"][0],
+    """What :func:`snrgain.outputs.plots.layout_plan` draws: the site plan (:func:`snrgain.outputs.siteplan.plan_of`:
+    the lot, keep-outs, the TX vertical and its clearance, the placed sources, every antenna as built) with the
+    layout's designs in place of the placed candidates, each labelled with its SNR gain; and the layout itself."""
+    from snrgain.outputs.siteplan import plan_of
+
+    gains = {
+        d.name: f"{g:+.1f} dB toward {t} (placed by layout)"
+        for d, g, t in zip(layout.designs, layout.snr_gain_db, layout.targets)
     }
+    plan = plan_of(problem.sc, data=problem.data, designs=layout.designs, gains=gains)
+    plan["layout"] = as_dict([layout])["layouts"][0]
+    return plan
 
 
 def _bearing_of(antenna) -> float | None:

@@ -1,0 +1,212 @@
+"""What the site plan draws, from a resolved scenario: one plan for ``snrgain figures``, the report and
+``snrgain layout --plot``.
+
+:func:`plan_of` returns a JSON-like dict (plan coordinates [m east, m north] inside; the unit to show them in at
+the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources,
+every antenna as built (a wire from its feed point, an array's elements, a combination drawn between its members
+and joined to each), the lengths of wire off the lot and the points where wires cross.  ``snrgain layout`` passes the
+placed designs, which replace those candidates' positions.
+
+The unit is the scenario's: feet when every length written with a unit in [site] and the antennas' places is in
+feet, else metres (the plan says which).
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+from snrgain.decide.lot import OFF_LOT_TOLERANCE_M, footprint, polygon, tx_clearance_m
+from snrgain.units import FT_PER_M
+
+_FEET = re.compile(r"(?:ft|feet|foot|')\s*$", re.IGNORECASE)
+_METRES = re.compile(r"(?:m|metres?|meters?)\s*$", re.IGNORECASE)
+_PLACE_KEYS = ("position", "positions", "length", "tx_clearance", "lot", "keep_out", "outline")
+
+
+def _strings(x, keys=_PLACE_KEYS, inside=False):
+    """The quantity strings written under the place and length keys of a scenario's raw tables."""
+    if isinstance(x, dict):
+        for k, v in x.items():
+            yield from _strings(v, keys, inside or k in keys)
+    elif isinstance(x, (list, tuple)):
+        for v in x:
+            yield from _strings(v, keys, inside)
+    elif inside and isinstance(x, str):
+        yield x
+
+
+def plan_unit(data: dict | None) -> str:
+    """ "ft" when every length the scenario writes with a unit for its plan (lot, keep-outs, clearance, positions,
+    wire lengths) is in feet, else "m"."""
+    if not data:
+        return "m"
+    written = [s for s in _strings(data) if _FEET.search(s) or _METRES.search(s)]
+    return "ft" if written and all(_FEET.search(s) for s in written) else "m"
+
+
+def _part(kind: str, coords) -> dict:
+    return {"kind": kind, "coords": [(float(e), float(n)) for e, n in coords]}
+
+
+def _antenna_parts(ant, design=None) -> list[dict]:
+    """The antenna on the plan: a wire (feed point first), points (a compact antenna, an array's elements)."""
+    if design is not None:
+        e, n = design.east_m, design.north_m
+        if design.length_m is not None and design.bearing_rad is not None:
+            b = design.bearing_rad
+            return [_part("wire", [(e, n), (e + design.length_m * np.sin(b), n + design.length_m * np.cos(b))])]
+        return [_part("point", [(e, n)])]
+    shape = footprint(ant)
+    if shape is None:
+        return []
+    if shape.geom_type == "LineString":
+        return [_part("wire", shape.coords)]
+    if shape.geom_type == "MultiPoint":
+        return [_part("elements", [p.coords[0] for p in shape.geoms])]
+    return [_part("point", shape.coords)]
+
+
+def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = None) -> dict:
+    """The site plan of a resolved scenario ``sc`` (its raw tables ``data`` give the unit).
+
+    ``designs``: :class:`snrgain.tools.layout.Design` objects placing candidates (layout); ``gains``: a label per
+    antenna name to add to its legend entry (the layout's SNR gain and target)."""
+    from shapely.geometry import LineString, Point
+
+    site = sc.site
+    placed = {d.name: d for d in designs}
+    gains = gains or {}
+    antennas = []
+    for k, ant in enumerate(sc.antennas):
+        entry = {
+            "name": ant.name,
+            "family": ant.family,
+            "reference": k == 0,
+            "placed": ant.name in placed,
+            "note": gains.get(ant.name),
+            "parts": _antenna_parts(ant, placed.get(ant.name)),
+            "members": [],
+        }
+        if ant.composite:
+            entry["members"] = [p.name for p in getattr(ant, "elements", None) or ()]
+        antennas.append(entry)
+    where = {a["name"]: a for a in antennas}
+    for a in antennas:  # a combination: drawn between its members' feed points, joined to each
+        if a["members"]:
+            pts = [where[m]["parts"][0]["coords"][0] for m in a["members"] if m in where and where[m]["parts"]]
+            if pts:
+                a["parts"] = [_part("unit", [tuple(np.mean(pts, axis=0))])]
+                a["member_feeds"] = pts
+    ref = sc.reference
+    tx = None
+    if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
+        tx = tuple(float(v) for v in (ref.params.position or (0.0, 0.0)))
+    lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
+    off_lot = [] if lot is None else _off_lot(antennas, lot)
+    wires = [(a["name"], LineString(p["coords"])) for a in antennas for p in a["parts"] if p["kind"] == "wire"]
+    crossings = []
+    for i, (na, wa) in enumerate(wires):  # as the lot checks count them (snrgain.decide.lot): touching is not crossing
+        for nb, wb in wires[i + 1 :]:
+            if not (wa.crosses(wb) or (wa.intersects(wb) and not wa.touches(wb))):
+                continue
+            hit = wa.intersection(wb)
+            for g in getattr(hit, "geoms", [hit]):
+                if isinstance(g, Point):
+                    crossings.append({"antennas": [na, nb], "at": (float(g.x), float(g.y))})
+    unit = plan_unit(data)
+    return {
+        "site": site.name,
+        "unit": unit,
+        "per_m": FT_PER_M if unit == "ft" else 1.0,
+        "lot": None if site.lot_m is None else [tuple(map(float, p)) for p in site.lot_m],
+        "keep_out": [(n, [tuple(map(float, p)) for p in pts]) for n, pts in site.keep_out],
+        "tx": tx,
+        "tx_name": ref.name,
+        "clearance_m": tx_clearance_m(site, sc.freq_hz) if tx is not None else None,
+        "clearance_given": getattr(site, "tx_clearance_m", None) is not None,
+        "sources": [(s.name, tuple(map(float, s.position_m))) for s in sc.noise.local if s.position_m is not None],
+        "antennas": antennas,
+        "off_lot": off_lot,
+        "crossings": crossings,
+    }
+
+
+def _off_lot(antennas, lot) -> list[dict]:
+    """The stretches of wire and the points (feed points, elements) that lie off the lot by more than the lot checks'
+    tolerance (snrgain.decide.lot.OFF_LOT_TOLERANCE_M)."""
+    from shapely.geometry import LineString, Point
+
+    out = []
+    for a in antennas:
+        for p in a["parts"]:
+            if p["kind"] == "wire":
+                outside = LineString(p["coords"]).difference(lot)
+                if outside.length > OFF_LOT_TOLERANCE_M:
+                    for g in getattr(outside, "geoms", [outside]):
+                        out.append({"antenna": a["name"], "coords": [tuple(map(float, c)) for c in g.coords]})
+            elif p["kind"] in ("point", "elements"):
+                for c in p["coords"]:
+                    if lot.exterior.distance(Point(c)) > OFF_LOT_TOLERANCE_M and not lot.covers(Point(c)):
+                        out.append({"antenna": a["name"], "coords": [tuple(map(float, c))]})
+    return out
+
+
+def plan_from_results(results) -> dict:
+    """The plan that Results alone give (no scenario at hand): the lot and the antennas with a position, in
+    metres; keep-outs, the clearance and placed sources need the scenario (:func:`plan_of`)."""
+    antennas = []
+    for k, a in enumerate([results.reference, *results.candidates]):
+        p = a.parameters
+        parts = []
+        if p.get("antennas"):
+            pass
+        elif p.get("positions_m") is not None and len(p["positions_m"]) > 1:
+            parts = [_part("elements", p["positions_m"])]
+        elif p.get("position_m") is not None:
+            e, n = p["position_m"]
+            length, bearing = p.get("length_m"), p.get("bearing_deg")
+            if length is not None and bearing is not None:
+                b = np.radians(bearing)
+                parts = [_part("wire", [(e, n), (e + length * np.sin(b), n + length * np.cos(b))])]
+            else:
+                parts = [_part("point", [(e, n)])]
+        antennas.append(
+            {
+                "name": a.name,
+                "family": a.family,
+                "reference": k == 0,
+                "placed": False,
+                "note": None,
+                "parts": parts,
+                "members": list(p.get("antennas") or []),
+            }
+        )
+    where = {a["name"]: a for a in antennas}
+    for a in antennas:
+        pts = [where[m]["parts"][0]["coords"][0] for m in a["members"] if m in where and where[m]["parts"]]
+        if pts:
+            a["parts"] = [_part("unit", [tuple(np.mean(pts, axis=0))])]
+            a["member_feeds"] = pts
+    return {
+        "site": results.site["name"],
+        "unit": "m",
+        "per_m": 1.0,
+        "lot": None if not results.lot_m else [tuple(map(float, p)) for p in results.lot_m],
+        "keep_out": [],
+        "tx": None,
+        "tx_name": results.reference.name,
+        "clearance_m": None,
+        "clearance_given": False,
+        "sources": [],
+        "antennas": antennas,
+        "off_lot": [],
+        "crossings": [],
+    }
+
+
+def has_plan(plan: dict) -> bool:
+    """Whether there is anything to draw: a lot, or an antenna with a place on it (an array's element positions
+    alone may be relative to the array, not places on a plan)."""
+    return bool(plan.get("lot") or any(p["kind"] in ("wire", "point") for a in plan["antennas"] for p in a["parts"]))

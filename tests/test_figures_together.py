@@ -1,0 +1,276 @@
+"""Figures a builder reads together (issue 26): checked on the artists, not the pixels.
+
+The site (tests/data/sites/sedge-bank-plan.toml, invented) has eight antennas (the reference and seven candidates
+of six families, two of them verticals), three targets (one listened 22-0 UTC, across midnight), two keep-out
+areas, a placed noise source, a two-element array, a combination of the reference and a whip, a wire that runs off
+the lot and two wires that cross; it is written in feet.
+"""
+
+from pathlib import Path
+
+import matplotlib.colors as mcolors
+import numpy as np
+import pytest
+from matplotlib.collections import LineCollection, PolyCollection
+from matplotlib.patches import Circle, Polygon
+
+import snrgain
+from snrgain.outputs import plots, report
+from snrgain.outputs.siteplan import plan_of, plan_unit
+from snrgain.outputs.style import TOL_MUTED, listening_order, looks_of
+from snrgain.scenario import load, read_source
+from snrgain.units import FT_PER_M
+
+SITE = Path(__file__).parent / "data" / "sites" / "sedge-bank-plan.toml"
+
+
+@pytest.fixture(scope="module")
+def drawn():
+    data, label, base_dir = read_source(SITE)
+    sc = load(data, base_dir=base_dir, label=label)
+    return snrgain.evaluate(sc), plan_of(sc, data=data), sc
+
+
+def _hex(c):
+    return mcolors.to_hex(c).lower()
+
+
+def _line_colours(ax):
+    """Colour of each labelled line, by the antenna name its label starts with."""
+    return {ln.get_label(): _hex(ln.get_color()) for ln in ax.get_lines() if not ln.get_label().startswith("_")}
+
+
+def _by_antenna(labels_to_colour, names):
+    out = {}
+    for label, col in labels_to_colour.items():
+        for n in sorted(names, key=len, reverse=True):  # "TX vertical + sense whip" before "TX vertical"
+            if label.startswith(n):
+                out.setdefault(n, set()).add(col)
+                break
+    return out
+
+
+def test_the_site_is_the_one_the_issue_asks_for(drawn):
+    r, plan, sc = drawn
+    assert len(r.antennas) >= 8 and len(r.targets) >= 3
+    assert len(plan["keep_out"]) >= 2 and plan["sources"]
+    kinds = {p["kind"] for a in plan["antennas"] for p in a["parts"]}
+    assert {"wire", "point", "elements", "unit"} <= kinds
+
+
+def test_each_antenna_has_one_colour_in_every_figure(drawn):
+    r, plan, _ = drawn
+    names = [a.name for a in r.antennas]
+    expected = {n: _hex(lk.color) for n, lk in looks_of(r).items()}
+    assert len(set(expected.values())) == len(names)  # eight antennas, eight colours
+    assert expected[r.reference.name] == "#000000"
+    seen = {}
+    figs = {
+        "azimuth": plots.azimuth_pattern(r, target_index=1),
+        "elevation": plots.elevation_pattern(r, target_index=2),
+        "plan": plots.site_plan(r, plan=plan),
+        "layout": plots.layout_plan(plan),
+    }
+    for what, fig in figs.items():
+        seen[what] = _by_antenna(_line_colours(fig.axes[0]), names)
+    hours = plots.snr_over_hours(r)
+    for i, ax in enumerate(hours.axes):
+        seen[f"hours {i}"] = _by_antenna(_line_colours(ax), names)
+    for what, by in seen.items():
+        assert set(by) == set(names), (what, set(names) - set(by))
+        for n, cols in by.items():
+            assert cols == {expected[n]}, (what, n, cols)
+    # the ranking chart: every bar of a candidate (per target, SNR gain and RDF) in the candidate's colour
+    fig = plots.ranking_chart(r)
+    ticks = [t.get_text() for t in fig.axes[0].get_yticklabels()]
+    for ax in fig.axes[:3]:
+        bars = [b for b in ax.patches if b.get_height() > 0 and b.get_width() != 0]
+        assert bars
+        for b in bars:
+            y = b.get_y() + b.get_height() / 2
+            name = ticks[int(round(y))]
+            assert _hex(b.get_facecolor()) == expected[name], (name, ax.get_title())
+
+
+def test_families_share_a_line_style_and_targets_never_take_an_antenna_colour(drawn):
+    r, _, _ = drawn
+    looks = looks_of(r)
+    fam = {a.name: a.family for a in r.antennas}
+    for a in r.antennas:
+        for b in r.antennas:
+            same = (looks[a.name].linestyle, looks[a.name].marker) == (looks[b.name].linestyle, looks[b.name].marker)
+            assert same == (fam[a.name] == fam[b.name]), (a.name, b.name)
+    antenna_colours = {_hex(c) for c in TOL_MUTED} | {"#000000"}
+    fig = plots.ranking_chart(r)
+    handles, labels = fig.axes[0].get_legend_handles_labels()
+    swatches = [h.patches[0] for h, lab in zip(handles, labels) if lab in {t["name"] for t in r.targets}]
+    hatches = {p.get_hatch() for p in swatches}
+    assert len(hatches) == len(r.targets) and all(hatches)  # one hatch per target
+    assert all(_hex(p.get_facecolor()) not in antenna_colours - {"#000000"} for p in swatches)
+    az = plots.azimuth_pattern(r)
+    marks = [ln for ln in az.axes[0].get_lines() if ln.get_label().startswith("target: ")]
+    assert len(marks) == len(r.targets)
+    assert all(_hex(ln.get_markerfacecolor()) == "#ffffff" for ln in marks)
+
+
+def test_a_window_across_midnight_is_one_line_in_its_order(drawn):
+    r, _, _ = drawn
+    fig = plots.snr_over_hours(r)
+    want = {t["name"]: [float(h) for h in listening_order(t["utc_hours"], 24)] for t in r.targets}
+    assert want["Japan"] == [22.0, 23.0, 0.0]
+    n_cand = len(r.candidates)
+    for ax, t in zip(fig.axes, r.targets):
+        hours = want[t["name"]]
+        assert [tl.get_text() for tl in ax.get_xticklabels()] == [f"{h:g}" for h in hours]
+        lines = [ln for ln in ax.get_lines() if ln.get_label() in {c.name for c in r.candidates}]
+        assert len(lines) == n_cand  # one line per candidate: the night is not split
+        for ln in lines:
+            x = np.asarray(ln.get_xdata(), dtype=float)
+            assert np.all(np.diff(x) > 0) and not np.any(np.isnan(np.asarray(ln.get_ydata(), dtype=float)))
+            assert np.allclose(np.mod(x, 24), hours)
+        bars = [c for c in ax.collections if isinstance(c, LineCollection)]
+        bands = [c for c in ax.collections if isinstance(c, PolyCollection)]
+        assert len(bars) == len(bands) == n_cand
+        assert all(len(b.get_segments()) == len(hours) for b in bars)  # the decile bar on every point
+
+
+def test_the_plan_holds_the_whole_site(drawn):
+    r, plan, sc = drawn
+    assert plan["unit"] == "ft"
+    fig = plots.site_plan(r, plan=plan)
+    ax = fig.axes[0]
+    assert ax.get_xlabel() == "east (ft)" and ax.get_ylabel() == "north (ft)"
+    polys = [p for p in ax.patches if isinstance(p, Polygon)]
+    texts = {t.get_text() for t in ax.texts}
+    for name, pts in sc.site.keep_out:
+        assert name in texts
+        corners = np.asarray(pts) * FT_PER_M
+        assert any(all(np.min(np.hypot(*(p.get_xy() - c).T)) < 1e-6 for c in corners) for p in polys), (
+            f"keep-out {name} not drawn"
+        )
+    circles = [p for p in ax.patches if isinstance(p, Circle)]
+    assert len(circles) == 1 and circles[0].get_radius() == pytest.approx(100.0)
+    assert circles[0].center == pytest.approx((0.0, 0.0))
+
+    def drawn_at(e_ft, n_ft):
+        return any(
+            np.any(np.hypot(np.asarray(ln.get_xdata(), float) - e_ft, np.asarray(ln.get_ydata(), float) - n_ft) < 0.01)
+            for ln in ax.get_lines()
+        )
+
+    for s in sc.noise.local:
+        assert drawn_at(*(np.asarray(s.position_m) * FT_PER_M)), s.name
+    pair = next(a for a in sc.antennas if a.name == "pair north-west")
+    for e, n in pair.positions:
+        assert drawn_at(e * FT_PER_M, n * FT_PER_M)  # every element of the array
+    combo = next(a for a in sc.antennas if a.composite)
+    for part in combo.elements:  # the combination joined to each member's place
+        assert drawn_at(*(np.asarray(part.params.position) * FT_PER_M))
+    labels = {ln.get_label() for ln in ax.get_lines()}
+    assert "off the lot" in labels and "wires cross" in labels
+    assert any(lab.startswith("Beverage west: 500 ft toward 285 deg") for lab in labels)
+    assert {c["antennas"][0] for c in plan["crossings"]} | {c["antennas"][1] for c in plan["crossings"]} == {
+        "Beverage west",
+        "BOG south-west",
+    }
+    assert {o["antenna"] for o in plan["off_lot"]} == {"wire north"}
+
+
+def test_the_plan_unit_is_the_scenarios():
+    assert plan_unit({"site": {"lot": [["0 ft", "0 ft"]]}, "candidate": [{"length": "300 ft"}]}) == "ft"
+    assert plan_unit({"site": {"lot": [[0, 0]]}, "candidate": [{"length": "300 ft", "position": ["3 m", "0 m"]}]}) == (
+        "m"
+    )
+    assert plan_unit({"site": {"lot": [[0, 0]]}}) == "m"
+    assert plan_unit(None) == "m"
+
+
+def test_the_sky_is_interpolated_and_the_report_names_its_hour(drawn):
+    r, plan, _ = drawn
+    mi, hi = plots.sky_moment(r)
+    assert r.months[mi] == 12 and r.utc_hours[hi] == 2.0  # the middle of 11, 12, 1 and of 22, 23, 0, 2, 4, 6
+    fig = plots.noise_sky(r)
+    assert "month 12, 2 UTC" in fig.texts[0].get_text()
+    panels = {ax.get_title(loc="left"): ax for ax in fig.axes[:-1]}
+    maps = {c.name: c for c in r.noise.maps[(mi, hi)] if c.directions.nside is not None}
+    for name, comp in maps.items():
+        meshes = [m for m in panels[name].collections if np.ma.asarray(m.get_array()).size]
+        if not np.any(comp.weight_k_sr > 0):
+            assert not meshes  # screened: said in words, no colour
+            continue
+        grid = np.ma.asarray(meshes[0].get_array()).reshape(-1, 360)
+        assert not np.ma.getmaskarray(grid).any()  # noise reaches every cell here: no blank rows
+        px = 10 * np.log10(comp.weight_k_sr / comp.directions.solid_angle_sr)
+        # interpolated, so inside the pixels' range, and smooth: a nearest-pixel lookup steps by a whole ring's
+        # change (rings 1.2 deg apart) between two rows; interpolated rows 0.5 deg apart step by about 0.42 of it
+        assert grid.min() >= px.min() - 1e-6 and grid.max() <= px.max() + 1e-6
+        el = np.degrees(comp.directions.elevation_rad)
+        rings = np.unique(np.round(el[el < 12], 6))
+        ring_db = np.array([px[np.isclose(el, e, atol=1e-6)].mean() for e in rings])
+        row_step = np.max(np.abs(np.diff(np.asarray(grid)[:20], axis=0)))
+        assert row_step < 0.6 * np.max(np.abs(np.diff(ring_db))), name
+    figs = report.figure_list(r, plan=plan)
+    caption = next(c for t, _, c in figs if t == "Noise sky")
+    assert "2 UTC in month 12" in caption
+    text = report.render(r, plan=plan)
+    assert "<td class='name'>11, 12, 1</td>" in text and "<td class='name'>22, 23, 0, 2, 4, 6</td>" in text
+    assert "months 11, 12, 1;" in text
+
+
+def test_the_report_marks_each_antenna_with_its_figure_colour(drawn):
+    r, plan, _ = drawn
+    text = report.render(r, plan=plan)
+    ranked = text[text.index("id='ranked'") : text.index("id='plan'")]
+    for name, lk in looks_of(r).items():
+        # the ranking tables: each antenna's row starts with its colour, once per target
+        row = f"<span class='swatch' style='background:{lk.color}'></span>{name}</td>"
+        assert ranked.count(row) == len(r.targets), name
+    served = text[text.index("id='plan'") : text.index("id='build'")]
+    for name in r.plan.antennas:
+        assert f"<span class='swatch' style='background:{looks_of(r)[name].color}'></span>{name}" in served
+
+
+def test_the_build_line_gives_a_loop_in_both_units_rounded(drawn):
+    # 26 x 13 ft as written: 7.9248 x 3.9624 m, which the build line printed to every digit
+    from snrgain.outputs.output import build_lines
+
+    r, _, _ = drawn
+    line = dict(build_lines(r))["flag north-west"]
+    assert "rectangle 7.92 x 3.96 m (26.0 x 13.0 ft)" in line
+
+
+def test_the_layout_plot_is_the_site_plan_with_the_placed_antenna(tmp_path):
+    import re
+    import tomllib
+
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+    from snrgain.tools.layout import Problem, plan_data
+
+    text = SITE.read_text().replace(
+        'position = ["525 ft", "200 ft"]',
+        'position = ["525 ft", "200 ft"]\nplace = { bearing = ["270 deg", "300 deg"], length = ["400 ft", "600 ft"] }',
+    )
+    data = tomllib.loads(text)
+    sc = load(data)
+    problem = Problem(sc, data)
+    best = problem.search(keep=1)[0]
+    plan = plan_data(problem, best)
+    site = plan_of(sc, data=data)
+    # everything the site plan holds, and the placed Beverage where the layout puts it
+    assert plan["keep_out"] == site["keep_out"] and plan["sources"] == site["sources"]
+    assert plan["tx"] == site["tx"] and plan["clearance_m"] == site["clearance_m"] and plan["unit"] == "ft"
+    drawn = {a["name"]: a for a in plan["antennas"]}
+    assert set(drawn) == {a["name"] for a in site["antennas"]}
+    (d,) = best.designs
+    assert drawn[d.name]["placed"] and drawn[d.name]["parts"][0]["coords"][0] == pytest.approx((d.east_m, d.north_m))
+    fig = plots.layout_plan(plan)
+    assert any(ln.get_label().startswith(f"{d.name}: ") and "ft toward" in ln.get_label() for ln in fig.axes[0].lines)
+    path = tmp_path / "site.toml"
+    path.write_text(text, encoding="utf-8")
+    args = ["layout", str(path), "--keep", "1", "--plot", str(tmp_path / "layout.png")]
+    res = CliRunner().invoke(cli, args, env={"COLUMNS": "200"})  # wide enough that rich does not wrap a cell
+    assert res.exit_code == 0, res.output
+    assert re.search(r"-?\d+ ft, -?\d+ ft", res.output)  # the feed point in the scenario's unit
+    assert (tmp_path / "layout.png").stat().st_size > 20_000
