@@ -274,3 +274,13 @@ def test_the_layout_plot_is_the_site_plan_with_the_placed_antenna(tmp_path):
     assert res.exit_code == 0, res.output
     assert re.search(r"-?\d+ ft, -?\d+ ft", res.output)  # the feed point in the scenario's unit
     assert (tmp_path / "layout.png").stat().st_size > 20_000
+
+
+def test_results_carry_the_whole_site_plan_for_python_use():
+    # The pipeline keeps the site plan on the results (in metres), so a report or plan drawn from Python without
+    # the scenario shows keep-outs, sources and elements too, not only the positioned antennas.
+    r = snrgain.evaluate(SITE)
+    plan = r.site_plan
+    assert plan["unit"] == "m" and plan["keep_out"] and plan["sources"]
+    html = report.render(r)
+    assert "placed noise sources and every antenna as built, to scale in metres" in html

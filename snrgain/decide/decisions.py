@@ -121,7 +121,19 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
             }
             for s in sc.noise.local
         ],
+        site_plan=_site_plan(sc),
     )
+
+
+def _site_plan(sc: Scenario) -> dict | None:
+    """The site to scale as the scenario places it (lot, keep-outs, clearance, sources, every antenna as built), in
+    metres (the command line redraws it in the scenario's own unit); None where shapely cannot make it."""
+    from snrgain.outputs.siteplan import plan_of  # geometry only: data for the figures, no drawing
+
+    try:
+        return plan_of(sc)
+    except (ValueError, TypeError):  # a site with nothing placed: the figures fall back on the results alone
+        return None
 
 
 def _receiver_dict(sc: Scenario) -> dict:

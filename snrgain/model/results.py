@@ -136,6 +136,8 @@ class Results:
     cuts: PatternCuts | None = None
     lot_m: list[tuple[float, float]] | None = None
     local_sources: list[dict[str, Any]] = field(default_factory=list)
+    site_plan: dict[str, Any] | None = field(default=None, repr=False)
+    """The site to scale (snrgain.outputs.siteplan.plan_of), in metres; what figures and the report draw."""
 
     @property
     def antennas(self) -> list[AntennaResult]:

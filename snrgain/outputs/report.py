@@ -339,6 +339,7 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
             "the target); RDF per target; margin of external noise.",
         )
     )
+    plan = plan if plan is not None else getattr(r, "site_plan", None)  # the pipeline's own, in metres
     if plots.has_site_plan(r, plan=plan):
         unit = (plan or {}).get("unit", "m")
         figs.append(

@@ -154,8 +154,10 @@ def _off_lot(antennas, lot) -> list[dict]:
 
 
 def plan_from_results(results) -> dict:
-    """The plan that Results alone give (no scenario at hand): the lot and the antennas with a position, in
-    metres; keep-outs, the clearance and placed sources need the scenario (:func:`plan_of`)."""
+    """The plan that Results give: the whole plan the pipeline made of the scenario (``results.site_plan``, in
+    metres), or for Results made without one, the lot and the antennas with a position."""
+    if getattr(results, "site_plan", None) is not None:
+        return results.site_plan
     antennas = []
     for k, a in enumerate([results.reference, *results.candidates]):
         p = a.parameters
