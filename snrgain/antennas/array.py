@@ -307,11 +307,6 @@ class Array(Antenna):
         out.set_weights(freq_hz, w, note)
         return out
 
-    def held_weights(self, freq_hz: float):
-        """(weights, note) held at ``freq_hz`` once set under a sky or optimised; None otherwise."""
-        f = float(freq_hz)
-        return (self._steered[f], self._steered_note.get(f, "")) if f in self._steered else None
-
     def set_weights(self, freq_hz: float, w: np.ndarray, note: str) -> None:
         """Hold ``w`` as the weights at ``freq_hz`` (largest magnitude 1, the first element's phase 0)."""
         w = np.asarray(w, dtype=complex)

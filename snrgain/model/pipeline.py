@@ -41,7 +41,7 @@ from snrgain.model.products import (
 )
 from snrgain.model.results import PatternCuts, Results
 from snrgain.model.spread import snr_spread
-from snrgain.model.steering import nearest_target, repoint, sky_forms, steer, with_antennas
+from snrgain.model.steering import nearest_target, repoint, sky_forms, steer, with_antennas, with_candidates
 from snrgain.scenario import Scenario, load
 from snrgain.sky import noise as noisemod
 
@@ -132,17 +132,10 @@ def strength_offsets_db(sc: Scenario, reference) -> dict[str, float]:
 
 
 def build_sky(sc: Scenario, grid) -> noisemod.SkySeries:
-    """The scenario's noise sky on ``grid`` for its months and hours (its local sources resolved first by
-    :func:`resolve_sources`)."""
-    return noisemod.build_skies(
-        sc.noise,
-        sc.place,
-        months=sc.times.months,
-        utc_hours=sc.times.utc_hours,
-        grid=grid,
-        reference_gain=_reference_gain(sc),
-        reference_chain_gain_db=_chain_gain_db(sc),
-    )
+    """The scenario's noise sky on ``grid`` for its months and hours, its local sources' strengths from
+    :func:`resolve_sources` (a no-op when they are resolved already)."""
+    sc = resolve_sources(sc)
+    return noisemod.build_skies(sc.noise, sc.place, months=sc.times.months, utc_hours=sc.times.utc_hours, grid=grid)
 
 
 def nominal(sc: Scenario):
@@ -178,6 +171,7 @@ __all__ = [  # the stages, here or in the modules they live in (one import path 
     "sky_forms",
     "nearest_target",
     "with_antennas",
+    "with_candidates",
     "repoint",
     "products",
     "Products",

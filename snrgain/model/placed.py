@@ -36,6 +36,9 @@ import numpy as np
 from noisemodels.groundwave import dipole_field
 from snrgain.physics.ground import C_M_PER_S
 
+POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
+"""The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
+
 
 def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
     """(E_v, E_h) of a placed source at plan points (N, 2) [m], relative to the dipole's far field at 1 m."""
@@ -43,7 +46,7 @@ def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.
     r = np.sqrt((p[:, 0] - src.position_m[0]) ** 2 + (p[:, 1] - src.position_m[1]) ** 2 + src.height_m**2)
     eps = None if ground is None else ground.permittivity
     sig = None if ground is None else ground.conductivity_s_per_m
-    share = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}[src.polarisation]
+    share = POLARISATION_SHARE[src.polarisation]
     ev = np.sqrt(share[0]) * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig) if share[0] else 0
     eh = (
         np.sqrt(share[1])
@@ -147,7 +150,7 @@ def hears(antenna, src, freq_hz: float, reference_m) -> bool:
         return True
     at = antenna_point(antenna, reference_m)
     gv, gh = antenna.partial_gains(freq_hz, bearing_to(src, at[None, :]), np.array([src.elevation_rad]))
-    share_v, share_h = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}[src.polarisation]
+    share_v, share_h = POLARISATION_SHARE[src.polarisation]
     return bool(share_v * gv[0] + share_h * gh[0] > 0)
 
 

@@ -18,6 +18,13 @@ def nearest_target(sc: Scenario, bearing_rad: float) -> int:
     return int(np.argmin(off))
 
 
+def with_candidates(sc: Scenario, candidates, k: int) -> Scenario:
+    """The scenario holding its reference and ``candidates``, each on the chain of the scenario's antenna ``k``
+    (a sweep's or a layout's designs of one candidate, a phasing unit's trial settings)."""
+    candidates = tuple(candidates)
+    return replace(sc, candidates=candidates, chains=(sc.chains[0], *[sc.chains[k]] * len(candidates)))
+
+
 def with_antennas(sc: Scenario, antennas) -> Scenario:
     """The scenario holding ``antennas`` ([reference, *candidates], as a stage returned them)."""
     antennas = list(antennas)
@@ -90,6 +97,6 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
 
 def _median_gain(sc: Scenario, grid, skies, ref: Products, ant, k: int, ti: int) -> float:
     """Antenna ``ant``'s (candidate ``k``'s) statistic toward target ``ti`` without the spreads [dB]."""
-    sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[k]))
+    sub = with_candidates(sc, [ant], k)
     p = products(sub, [ref.antennas[0], ant], grid, skies, known=ref)
     return float(target_statistic(sub, snr_gains(sub, p))[1, ti])

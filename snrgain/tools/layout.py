@@ -160,40 +160,26 @@ class Problem:
         hit = self._sky.get(key)
         if hit is None:
             ant = self.antenna(i, bearing_rad, length_m)
-            sub = self.sub(i, ant)
+            sub = pipeline.with_candidates(self.sc, [ant], 1 + self.index[i])
             hit = self._sky[key] = (ant, pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref))
         return hit
 
-    def sub(self, i: int, ant):
-        """The scenario holding the reference and candidate i as ``ant`` (its own chain)."""
-        k = self.index[i]
-        return replace(self.sc, candidates=(ant,), chains=(self.sc.chains[0], self.sc.chains[1 + k]))
-
     def snr_gains_db(self, designs: list[Design], i: int) -> np.ndarray:
-        """:meth:`snr_gain_db` of many designs of candidate i sharing one bearing and length (one design at many
-        places), through the same stages at once."""
+        """Candidate i's SNR gain [dB] over the reference toward its target for designs sharing one bearing and
+        length (one design at many places), each standing at its place: the ranking's statistic (the median over
+        the target's hours), without the spreads, through the same stages at once."""
         from snrgain import pipeline
 
         d0 = designs[0]
         ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m)
-        if not self.placed:
-            return np.full(len(designs), self.snr_gain_db(d0, i))
-        ants = tuple(ant0.at((d.east_m, d.north_m)) for d in designs)
-        k = self.index[i]
-        sub = replace(self.sc, candidates=ants, chains=(self.sc.chains[0], *[self.sc.chains[1 + k]] * len(ants)))
+        ants = [ant0.at((d.east_m, d.north_m)) for d in designs]
+        sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
         return pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i]]
 
     def snr_gain_db(self, d: Design, i: int) -> float:
-        """Candidate i's SNR gain [dB] over the reference toward its target, the design standing at its place: the
-        ranking's statistic (the median over the target's hours), without the spreads, through the same stages."""
-        from snrgain.model import pipeline
-
-        ant0, known = self.design_products(i, d.bearing_rad, d.length_m)
-        ant = ant0.at((d.east_m, d.north_m))
-        sub = self.sub(i, ant)
-        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known) if self.placed else known
-        return float(pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1, self.target[i]])
+        """:meth:`snr_gains_db` of one design."""
+        return float(self.snr_gains_db([d], i)[0])
 
     # -- geometry -----------------------------------------------------------------------------------------------
 

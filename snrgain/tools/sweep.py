@@ -287,7 +287,7 @@ class _Shared:
         ant = antenna_from_table(
             spec, f"candidate {name!r}", site_ground=self.raw_ground, base_dir=base, freq_hz=sc.freq_hz
         )
-        sub = replace(sc, candidates=(ant,), chains=(sc.chains[0], sc.chains[1 + k]))
+        sub = pipeline.with_candidates(sc, [ant], 1 + k)
         sub = pipeline.steer(sub, self.grid, self.skies)
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
         return pipeline.antenna_results(sub, p, self.skies)[1]
