@@ -549,12 +549,13 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     for a in plan["antennas"]:
         lk = looks[a["name"]]
         label = a["name"] + (" (reference)" if a["reference"] else "")
+        note = f"; {a['note']}" if a.get("note") else ""  # in its own entry it would stand in the other column
         for p in a["parts"]:
             px, py = xy(p["coords"])
             if p["kind"] == "wire":
                 length = float(np.hypot(px[1] - px[0], py[1] - py[0]))
                 bearing = float(np.degrees(np.arctan2(px[1] - px[0], py[1] - py[0])) % 360)
-                label += f": {length:.0f} {unit} toward {bearing:.0f} deg"
+                label += f": {length:.0f} {unit} toward {bearing:.0f} deg{note}"
                 ax.plot(px, py, label=label, zorder=4, **lk.line())
                 ax.plot(px[:1], py[:1], marker=lk.marker, color=lk.color, ms=8, mec="black", ls="none", zorder=5)
                 ax.annotate(
@@ -566,7 +567,9 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                 )
             elif p["kind"] == "elements":
                 ax.plot(px, py, color=lk.color, ls=lk.linestyle, lw=0.8, zorder=4)
-                ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=8, ls="none", label=label, zorder=5)
+                ax.plot(
+                    px, py, marker=lk.marker, color=lk.color, mec="black", ms=8, ls="none", label=label + note, zorder=5
+                )
             elif p["kind"] == "unit":
                 for fx, fy in a.get("member_feeds", []):
                     ax.plot([px[0], fx * k], [py[0], fy * k], color=lk.color, ls=lk.linestyle, lw=1.4, zorder=3)
@@ -574,10 +577,18 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                 joined = " and ".join(a["members"])
                 ax.plot([], [], marker=lk.marker, mec="black", label=f"{label}: combines {joined}", **lk.line())
             else:
-                ax.plot(px, py, marker=lk.marker, color=lk.color, mec="black", ms=10, ls="none", label=label, zorder=5)
+                ax.plot(
+                    px,
+                    py,
+                    marker=lk.marker,
+                    color=lk.color,
+                    mec="black",
+                    ms=10,
+                    ls="none",
+                    label=label + note,
+                    zorder=5,
+                )
             label = None
-        if a.get("note") and label is None:
-            ax.plot([], [], ls="none", label=f"    {a['note']}")
     for i, o in enumerate(plan["off_lot"]):
         ox, oy = xy(o["coords"])
         ax.plot(
