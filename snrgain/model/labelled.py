@@ -13,6 +13,7 @@ xarray and pandas are imported here, not by ``import snrgain``: only a caller of
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -104,10 +105,34 @@ DESCRIPTIONS: dict[str, str] = {
 }
 
 
-def to_xarray(results: Results) -> xr.Dataset:
-    """The results as an :class:`xarray.Dataset` (see :meth:`snrgain.model.results.Results.to_xarray`)."""
-    import xarray as xr
+@dataclass(frozen=True)
+class Labelled:
+    """The labelled arrays of a Results, in numpy only: what :func:`to_xarray` wraps into a Dataset.
 
+    ``data`` maps each variable to (dimension names, array); ``coords`` each coordinate to (dimension, values[,
+    attrs]); ``attrs`` the Dataset's attributes.  The terminal tables read these (no xarray import for a
+    ranking); the Dataset is made from the same arrays, so the two cannot disagree.
+    """
+
+    data: dict
+    coords: dict
+    attrs: dict
+
+    def get(self, name: str, **index: int) -> np.ndarray:
+        """Variable ``name`` with the named dimensions fixed at the given integer positions,
+        e.g. ``get("rdf_db", target=0)`` -> one value per antenna."""
+        dims, arr = self.data[name]
+        sel = tuple(index.pop(d) if d in index else slice(None) for d in dims)
+        if index:
+            raise KeyError(f"{name} has no dimension {sorted(index)}; its dimensions: {dims}")
+        return np.asarray(arr)[sel]
+
+    def coord(self, name: str) -> np.ndarray:
+        return np.asarray(self.coords[name][1])
+
+
+def labelled(results: Results) -> Labelled:
+    """The results' variables and coordinates as labelled numpy arrays (see :class:`Labelled`)."""
     r = results
     ants = r.antennas
     names = [a.name for a in ants]
@@ -191,8 +216,8 @@ def to_xarray(results: Results) -> xr.Dataset:
         "component_kind": ("component", list(n.kinds), {"units": "-"}),
         "atmospheric_decile": ("atmospheric_decile", list(ATMOSPHERIC_DECILES)),
     }
-    ds = xr.Dataset(
-        {k: (dims, v, {"units": UNITS[k], "description": DESCRIPTIONS[k]}) for k, (dims, v) in data.items()},
+    return Labelled(
+        data=data,
         coords=coords,
         attrs={
             "site": str(r.site.get("name", "")),
@@ -207,7 +232,18 @@ def to_xarray(results: Results) -> xr.Dataset:
             "scenario": str(r.source),
         },
     )
-    return ds
+
+
+def to_xarray(results: Results) -> xr.Dataset:
+    """The results as an :class:`xarray.Dataset` (see :meth:`snrgain.model.results.Results.to_xarray`)."""
+    import xarray as xr
+
+    lab = labelled(results)
+    return xr.Dataset(
+        {k: (dims, v, {"units": UNITS[k], "description": DESCRIPTIONS[k]}) for k, (dims, v) in lab.data.items()},
+        coords=lab.coords,
+        attrs=lab.attrs,
+    )
 
 
 DATAFRAME_COLUMNS = [

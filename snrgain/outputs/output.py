@@ -130,17 +130,19 @@ def spread_note(r: Results) -> str:
     return "spread over " + (", ".join(parts) if parts else "nothing (every spread is off)")
 
 
-def target_table(r: Results, i: int, ds=None):
+def target_table(r: Results, i: int, lab=None):
     """One target's ranking: median SNR gain with its 10-90 % band, the chance of beating the reference, RDF,
     front-to-back, and each antenna's noise against the receiver.
 
-    The numbers are read from the labelled results ``ds`` (:meth:`Results.to_xarray`, made here if not given).
+    The numbers are read from the labelled arrays ``lab`` (:func:`snrgain.model.labelled.labelled`, the arrays
+    :meth:`Results.to_xarray` wraps; made here if not given).
     """
     from rich.table import Table
     from rich.text import Text
 
-    ds = r.to_xarray() if ds is None else ds
-    at = ds.isel(target=i)
+    from snrgain.model.labelled import labelled
+
+    lab = labelled(r) if lab is None else lab
     t = r.targets[i]
     where = f"{t['bearing_deg']:.0f} deg, {t['elevation_min_deg']:.0f}-{t['elevation_max_deg']:.0f} deg elevation"
     if t.get("distance_km"):
@@ -149,14 +151,14 @@ def target_table(r: Results, i: int, ds=None):
     table = Table(
         title=Text(f"{t['name']}: {where}; {when}", style="bold"),
         title_justify="left",
-        caption=f"SNR gain over {ds.attrs['reference']}; {spread_note(r)}",
+        caption=f"SNR gain over {lab.attrs['reference']}; {spread_note(r)}",
         caption_justify="left",
     )
     table.add_column("#", justify="right", no_wrap=True)
     table.add_column("antenna", no_wrap=True, max_width=32)
     for label in (
         "SNR gain dB\nmedian (10-90 %)",
-        f"P(>={ds.attrs['beat_by_db']:g}\ndB)",
+        f"P(>={lab.attrs['beat_by_db']:g}\ndB)",
         "RDF\ndB",
         "F/B\ndB",
         "noise dBm\n(S-meter)",
@@ -165,41 +167,42 @@ def target_table(r: Results, i: int, ds=None):
     ):
         table.add_column(label, justify="right", no_wrap=True)
 
-    names = [str(n) for n in at["antenna"].values]
-    spread = at["snr_gain_quantile_db"].transpose("antenna", "quantile").values  # 10 %, median, 90 % [dB]
-    for k in np.argsort(at["rank_for_target"].values, kind="stable"):  # the reference (rank 0), then the ranking
-        a = at.isel(antenna=k)
-        noise = float(np.median(a["noise_dbm"].values))
-        margin = float(np.min(a["margin_db"].values))
-        limited = bool(a["receiver_limited"])
-        if bool(a["is_reference"]):
+    names = [str(n) for n in lab.coord("antenna")]
+    spread = lab.get("snr_gain_quantile_db", target=i)  # (antenna, quantile): 10 %, median, 90 % [dB]
+    ranks = lab.get("rank_for_target", target=i)
+    is_reference = lab.coord("is_reference")
+    for k in np.argsort(ranks, kind="stable"):  # the reference (rank 0), then the ranking
+        noise = float(np.median(lab.get("noise_dbm", antenna=k)))
+        margin = float(np.min(lab.get("margin_db", antenna=k)))
+        limited = bool(lab.get("receiver_limited", antenna=k))
+        if bool(is_reference[k]):
             rank, gain, prob, style = "ref", "0 (reference)", "-", "dim"
         else:
             p10, med, p90 = spread[k]
-            rank, gain, style = str(int(a["rank_for_target"])), f"{_f(med)} ({_f(p10)} to {_f(p90)})", None
-            prob = f"{100 * float(a['probability_beats_reference']):.0f} %"
+            rank, gain, style = str(int(ranks[k])), f"{_f(med)} ({_f(p10)} to {_f(p90)})", None
+            prob = f"{100 * float(lab.get('probability_beats_reference', antenna=k, target=i)):.0f} %"
         table.add_row(
             rank,
             Text(names[k]),
             gain,
             prob,
-            _f(a["rdf_db"]),
-            _f(np.clip(float(a["front_to_back_db"]), -99, 99)),
+            _f(lab.get("rdf_db", antenna=k, target=i)),
+            _f(np.clip(float(lab.get("front_to_back_db", antenna=k, target=i)), -99, 99)),
             f"{noise:.1f} ({s_units(noise)})",
             Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
-            _preamp_cell(limited, a["preamp_gain_needed_db"].values),
+            _preamp_cell(limited, lab.get("preamp_gain_needed_db", antenna=k)),
             style=style,
         )
-    best, runner_up = str(at["best"].values), str(at["runner_up"].values)
+    best, runner_up = str(lab.coord("best")[i]), str(lab.coord("runner_up")[i])
     p10, med, p90 = spread[names.index(best)]
-    reference = ds.attrs["reference"]
+    reference = lab.attrs["reference"]
     verdict = Text()
     if med > 0:
         verdict.append(f"Best toward {t['name']}: ", style="bold")
         verdict.append(f"{best}", style="bold green")
         verdict.append(
             f", {med:+.1f} dB over {reference} (median; {p10:+.1f} to {p90:+.1f} dB), "
-            f"{float(at['best_margin_db']):.1f} dB ahead of {runner_up}."
+            f"{float(lab.get('best_margin_db', target=i)):.1f} dB ahead of {runner_up}."
         )
     else:
         verdict.append(
@@ -343,8 +346,10 @@ def ranking_table(results: Results, *, build: bool = False):
 
     r = results
     parts = [_header(r)]
-    ds = r.to_xarray()
-    parts += [target_table(r, i, ds) for i in range(len(r.targets))]
+    from snrgain.model.labelled import labelled
+
+    lab = labelled(r)
+    parts += [target_table(r, i, lab) for i in range(len(r.targets))]
     parts.append(plan_text(r))
     if build:
         parts.append(build_text(r))
