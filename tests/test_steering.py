@@ -156,26 +156,34 @@ def test_reference_cannot_be_steered_for_snr():
         snrgain.evaluate(text + _pv("x"))
 
 
-def test_the_phase_search_gradient_is_the_ratios_derivative():
-    # The quasi-Newton phase search uses dR/dphi in closed form (steering.ratio_and_gradient); it must match a
-    # central finite difference of the ratio itself on random Hermitian forms.
+def test_the_phase_search_reaches_the_best_phases_of_a_brute_force_grid():
+    # Exact coordinate ascent over the phases (steering.best_phases) on random Hermitian forms of a 3-element
+    # array: its ratio is at least the best of a 1-degree grid over the two free phases, and the result is a
+    # stationary point (central finite differences of the ratio vanish).
     import numpy as np
 
     from snrgain.antennas import steering as st
 
     rng = np.random.default_rng(3)
-    m = rng.normal(size=(4, 4)) + 1j * rng.normal(size=(4, 4))
-    s = m @ m.conj().T
-    m = rng.normal(size=(4, 4)) + 1j * rng.normal(size=(4, 4))
-    n = m @ m.conj().T + np.eye(4)
-    amps = np.array([1.0, 0.8, 1.2, 0.9])
-    phi = rng.uniform(-np.pi, np.pi, 3)
-    r, g = st.ratio_and_gradient(phi, amps, s, n)
-    h = 1e-6
-    fd = [
-        (st.ratio_and_gradient(phi + h * e, amps, s, n)[0] - st.ratio_and_gradient(phi - h * e, amps, s, n)[0])
-        / (2 * h)
-        for e in np.eye(3)
-    ]
-    assert r == pytest.approx(st.ratio(amps * np.exp(1j * np.r_[0.0, phi]), s, n))
-    assert np.allclose(g, fd, rtol=1e-6, atol=1e-9)
+    grid = np.radians(np.arange(-180.0, 180.0, 1.0))
+    for _ in range(5):
+        m = rng.normal(size=(3, 3)) + 1j * rng.normal(size=(3, 3))
+        s = m @ m.conj().T
+        m = rng.normal(size=(3, 6)) + 1j * rng.normal(size=(3, 6))
+        n = m @ m.conj().T + 0.1 * np.eye(3)
+        amps = rng.uniform(0.6, 1.4, 3)
+        u = st.best_phases(s, n, amps, [np.ones(3)])
+        assert np.allclose(np.abs(u), amps)
+        best = st.ratio(u, s, n)
+        p1, p2 = np.meshgrid(grid, grid, indexing="ij")
+        us = amps * np.exp(1j * np.stack([np.zeros_like(p1), p1, p2], axis=-1))
+        num = np.real(np.einsum("...i,ij,...j->...", us.conj(), s, us))
+        den = np.real(np.einsum("...i,ij,...j->...", us.conj(), n, us))
+        assert best >= np.max(num / den) * (1 - 1e-12)
+        phi, h = np.angle(u[1:] * np.conj(u[0])), 1e-5
+
+        def r(x, amps=amps, s=s, n=n):
+            return st.ratio(amps * np.exp(1j * np.r_[0.0, x]), s, n)
+
+        fd = [(r(phi + h * e) - r(phi - h * e)) / (2 * h) for e in np.eye(2)]
+        assert np.allclose(fd, 0.0, atol=1e-6 * best)

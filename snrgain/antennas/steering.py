@@ -22,7 +22,7 @@ Those weights have free amplitudes: at close spacing they ask for
 superdirective settings, large and nearly cancelling, which a builder's
 phasing lines cannot hold.  By default only the phases move, the amplitudes
 kept as given (equal unless stated): the ratio is then maximised over the
-N - 1 relative phases by scipy.optimize from several starts (the end-fire
+N - 1 relative phases by exact cyclic coordinate ascent from several starts (the end-fire
 delays, the phases of the free optimum, and seeded random phases), so that
 the result is reproducible.  ``auto_amplitudes = true`` takes the free
 optimum itself.
@@ -36,6 +36,9 @@ FB_FLOOR = 1e-6
 """Front-to-back is maximised as G_front / (G_back + FB_FLOOR G_front): a null deeper than 60 dB counts no more."""
 
 RANDOM_STARTS = 12
+
+MAX_SWEEPS = 400
+"""Bound on the coordinate-ascent sweeps of one start (a 4-element start converges in a few tens)."""
 
 
 def quadratic_form(rv, rh, weights=None) -> np.ndarray:
@@ -53,49 +56,71 @@ def free_optimum(s: np.ndarray, n: np.ndarray) -> np.ndarray:
     """u maximising u^H S u / u^H N u (principal generalised eigenvector), scaled to unit largest magnitude."""
     n = 0.5 * (n + n.conj().T)
     s = 0.5 * (s + s.conj().T)
-    from scipy import linalg  # slow to import: here, when needed
-
     n = n + np.eye(len(n)) * 1e-12 * np.real(np.trace(n))  # a lossless, noiseless corner stays solvable
-    _, vecs = linalg.eigh(s, n)
-    u = vecs[:, -1]
+    # S v = lambda N v with N = L L^H (Cholesky) is the ordinary Hermitian problem of L^-1 S L^-H; numpy's
+    # LAPACK routines, not scipy.linalg's (a 0.2 s import for a 4 x 4 problem)
+    low = np.linalg.cholesky(n)
+    inv = np.linalg.inv(low)
+    _, vecs = np.linalg.eigh(inv @ s @ inv.conj().T)
+    u = inv.conj().T @ vecs[:, -1]
     return u / np.max(np.abs(u)) * np.exp(-1j * np.angle(u[0]))
 
 
-def ratio_and_gradient(phi: np.ndarray, amplitudes: np.ndarray, s: np.ndarray, n: np.ndarray):
-    """R = u^H S u / u^H N u for u = amplitudes * exp(j [0, phi]), and dR/dphi.
+def _phase_sweeps(u: np.ndarray, s: np.ndarray, n: np.ndarray, *, sweeps: int = MAX_SWEEPS) -> np.ndarray:
+    """Cyclic coordinate ascent of R = u^H S u / u^H N u over the phases of u[1:], each step exact.
 
-    With a = u^H S u and Hermitian S, da/dphi_k = 2 Im(conj(u_k) (S u)_k) (u_k turns by j u_k dphi_k); the same
-    for b = u^H N u, and dR = (da b - a db) / b^2."""
-    u = amplitudes * np.exp(1j * np.concatenate([[0.0], phi]))
-    su, nu = s @ u, n @ u
-    a, b = float(np.real(u.conj() @ su)), float(np.real(u.conj() @ nu))
-    da, db = 2 * np.imag(u.conj() * su), 2 * np.imag(u.conj() * nu)
-    return a / b, ((da * b - a * db) / b**2)[1:]
+    With the other elements fixed, turning element k by phi makes u^H S u = alpha + p cos phi + q sin phi and
+    u^H N u = beta + r cos phi + t sin phi (p + j q = 2 conj(u_k) sum_{j != k} S_kj u_j, u_k the current value;
+    the same for N).  dR/dphi = 0 is then X sin phi + Y cos phi = Z with X = alpha r - p beta,
+    Y = q beta - alpha t, Z = p t - q r: two roots, of which the larger R is taken (never below the current
+    phase, so R rises monotonically).
+    Stops when a sweep raises R by less than 1e-13 of itself."""
+    u = u.astype(complex)
+    count = len(u)
+    last = ratio(u, s, n)
+    for _ in range(sweeps):
+        for k in range(1, count):
+            uk = u[k]
+            u[k] = 0.0  # the rest of the array: u0
+            su0, nu0 = s @ u, n @ u
+            cs, cn = 2 * np.conj(uk) * su0[k], 2 * np.conj(uk) * nu0[k]
+            alpha = float(np.real(u.conj() @ su0)) + float(np.real(s[k, k])) * abs(uk) ** 2
+            beta = float(np.real(u.conj() @ nu0)) + float(np.real(n[k, k])) * abs(uk) ** 2
+            p, q, r, t = cs.real, cs.imag, cn.real, cn.imag  # Re(c e^-j phi) = c.real cos phi + c.imag sin phi
+            x, y, z = alpha * r - p * beta, q * beta - alpha * t, p * t - q * r
+            amp = np.hypot(x, y)
+            if amp == 0.0:
+                continue
+            # x sin phi + y cos phi = amp sin(phi + psi), psi = atan2(y, x)
+            psi, base = np.arctan2(y, x), np.arcsin(np.clip(z / amp, -1.0, 1.0))
+            roots = np.array([base - psi, np.pi - base - psi, 0.0])
+            vals = (alpha + p * np.cos(roots) + q * np.sin(roots)) / (beta + r * np.cos(roots) + t * np.sin(roots))
+            u[k] = uk * np.exp(1j * roots[int(np.argmax(vals))])
+        now = ratio(u, s, n)
+        if now - last <= 1e-13 * abs(now):
+            break
+        last = now
+    return u
 
 
 def best_phases(s: np.ndarray, n: np.ndarray, amplitudes: np.ndarray, starts: list[np.ndarray], *, seed: int = 0):
-    """u = amplitudes * exp(j phi) with phi[0] = 0 maximising u^H S u / u^H N u: a quasi-Newton search (BFGS) on
-    the analytic gradient (:func:`ratio_and_gradient`) from each start and from RANDOM_STARTS seeded random
-    phases; returns the best u."""
+    """u = amplitudes * exp(j phi) with phi[0] = 0 maximising u^H S u / u^H N u: exact cyclic coordinate ascent
+    over the phases (:func:`_phase_sweeps`) from each start and from RANDOM_STARTS seeded random phases;
+    returns the best u.  Pure numpy (no optimiser import)."""
     count = len(amplitudes)
     amplitudes = np.asarray(amplitudes, dtype=float)
     if count == 1:
         return amplitudes.astype(complex)
     s = 0.5 * (s + s.conj().T)
     n = 0.5 * (n + n.conj().T)
-
-    def cost(phi):
-        r, g = ratio_and_gradient(phi, amplitudes, s, n)
-        return -r, -g
-
-    from scipy import optimize  # slow to import: here, when needed
-
     rng = np.random.default_rng(seed)
     trials = [np.angle(v[1:] * np.conj(v[0])) for v in starts]
     trials += [rng.uniform(-np.pi, np.pi, count - 1) for _ in range(RANDOM_STARTS)]
-    best, best_val = None, np.inf
+    best, best_val = None, -np.inf
     for x0 in trials:
-        res = optimize.minimize(cost, x0, jac=True, method="BFGS", options={"gtol": 1e-10, "maxiter": 500})
-        if res.fun < best_val:
-            best, best_val = res.x, res.fun
-    return amplitudes * np.exp(1j * np.concatenate([[0.0], np.mod(best + np.pi, 2 * np.pi) - np.pi]))
+        u = _phase_sweeps(amplitudes * np.exp(1j * np.concatenate([[0.0], x0])), s, n)
+        val = ratio(u, s, n)
+        if val > best_val:
+            best, best_val = u, val
+    phi = np.angle(best[1:] * np.conj(best[0]))
+    return amplitudes * np.exp(1j * np.concatenate([[0.0], phi]))

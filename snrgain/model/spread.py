@@ -187,15 +187,19 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
             ]
         per_target = [int(m.sum()) if u.hours else 1 for m in masks]
         if len(nodes) * draws * max(per_target) <= EXACT_VALUES:
+            runs: dict[bytes, list] = {}  # per distinct set of listened cells: each node's -noise, sorted once
             for t_idx, mask in enumerate(masks):
-                values, weights = [], []
-                for signal, noise, weight in nodes:
-                    cells = signal[t_idx] - noise[:, mask]  # (draws, cells)
-                    if not u.hours:
-                        cells = cells.mean(axis=1, keepdims=True)
-                    values.append(cells.ravel())
-                    weights.append(np.full(cells.size, weight / cells.size))
-                v, w = np.concatenate(values), np.concatenate(weights)
+                key = mask.tobytes()
+                if key not in runs:
+                    runs[key] = [
+                        np.sort((-noise[:, mask] if u.hours else -noise[:, mask].mean(axis=1, keepdims=True)).ravel())
+                        for _, noise, _ in nodes
+                    ]
+                # a node's shift keeps its run sorted, so the stable sort (a merge of presorted runs) is cheap
+                v = np.concatenate([run + signal[t_idx] for run, (signal, _, _) in zip(runs[key], nodes)])
+                w = np.concatenate(
+                    [np.full(run.size, weight / run.size) for run, (_, _, weight) in zip(runs[key], nodes)]
+                )
                 stats = (*weighted_quantiles(v, w, (0.1, 0.5, 0.9)), float(np.sum(w[v >= u.beat_by_db]) / np.sum(w)))
                 out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
             continue
