@@ -240,6 +240,17 @@ def interpolation_weights(nside: int, theta_rad, phi_rad) -> tuple[np.ndarray, n
     return pix, wgt
 
 
+def mirror_pixels(nside: int) -> tuple[np.ndarray, np.ndarray]:
+    """The RING-scheme pixels below the equator ring and, for each, the pixel at the same bearing with the
+    elevation reflected (theta -> pi - theta): ring r and ring 4 nside - r hold as many pixels at the same phi
+    (Gorski et al. 2005, Section 4), so the k-th pixel of one mirrors the k-th of the other."""
+    rings = np.arange(2 * nside + 1, 4 * nside)
+    start, count, _, _ = _ring_info(nside, rings)
+    m_start, _, _, _ = _ring_info(nside, 4 * nside - rings)
+    offsets = np.concatenate([np.arange(c) for c in count])
+    return np.repeat(start, count) + offsets, np.repeat(m_start, count) + offsets
+
+
 @lru_cache(maxsize=8)
 def upper_hemisphere(nside: int = DEFAULT_NSIDE) -> Directions:
     """The HEALPix pixels of the upper hemisphere (elevation >= 0).

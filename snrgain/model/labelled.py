@@ -130,6 +130,27 @@ class Labelled:
     def coord(self, name: str) -> np.ndarray:
         return np.asarray(self.coords[name][1])
 
+    @property
+    def sizes(self) -> dict[str, int]:
+        """Length of each dimension."""
+        out: dict[str, int] = {}
+        for dims, arr in self.data.values():
+            out.update(zip(dims, np.shape(arr)))
+        return out
+
+    @classmethod
+    def of(cls, results) -> Labelled:
+        """The labelled arrays of a Results, a Labelled (itself) or a Dataset made by :func:`to_xarray`."""
+        if isinstance(results, cls):
+            return results
+        if hasattr(results, "data_vars"):  # an xarray Dataset
+            return cls(
+                data={k: (tuple(v.dims), v.values) for k, v in results.data_vars.items()},
+                coords={k: (c.dims[0], c.values) for k, c in results.coords.items()},
+                attrs=dict(results.attrs),
+            )
+        return labelled(results)
+
 
 def labelled(results: Results) -> Labelled:
     """The results' variables and coordinates as labelled numpy arrays (see :class:`Labelled`)."""

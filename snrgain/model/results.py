@@ -197,10 +197,17 @@ class Results:
         Dataset attributes: ``site``, ``latitude_deg``, ``longitude_deg``, ``frequency_hz``, ``bandwidth_hz``,
         ``reference``, ``beat_by_db``, ``margin_target_db``, ``nside``, ``scenario``.  Select by label, e.g.
         ``ds.snr_gain_db.sel(antenna="four-square west", target="East Asia")``.  Needs xarray (a dependency).
-        """
-        from snrgain.model.labelled import to_xarray
 
-        return to_xarray(self)
+        Made once per Results (the results are frozen): each call returns a deep copy of it, so a caller may
+        change what it gets.
+        """
+        held = self.__dict__.get("_dataset")
+        if held is None:
+            from snrgain.model.labelled import to_xarray
+
+            held = to_xarray(self)
+            self.__dict__["_dataset"] = held  # a cache, not a field: frozen dataclasses allow it via __dict__
+        return held.copy(deep=True)
 
     def to_dataframe(self, *, listened_only: bool = True):
         """The results as a tidy :class:`pandas.DataFrame`: one row per target, antenna, month and UTC hour.

@@ -24,6 +24,7 @@ them (:mod:`snrgain.outputs.style`).
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -31,7 +32,7 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from snrgain.model.labelled import QUANTILES
-from snrgain.outputs.style import SOURCE_MARKER, looks_of, target_looks, unwrapped
+from snrgain.outputs.style import SOURCE_MARKER, antenna_looks, looks_of, target_looks, unwrapped
 
 FLOOR_SPAN_DB = 40.0
 """Polar plots show this many dB below the strongest trace."""
@@ -197,27 +198,23 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
 
 def _sky_grid(comp, az_edges, el_edges):
     """Brightness temperature [K] of a diffuse component at the centres of a regular az/el grid, interpolated on the
-    sphere (healpy's bilinear interpolation between the four nearest pixel centres), not looked up pixel by pixel.
+    sphere (bilinear between the four nearest pixel centres, healpy's scheme in numpy: noisemodels.sphere), not
+    looked up pixel by pixel.
 
     Pixels centred below the horizon hold no brightness; each takes the value of its mirror image above the
     horizon, so the interpolation just above 0 deg is not pulled toward zero (which drew a dotted row there)."""
-    import healpy as hp
-
-    from noisemodels.sphere import to_healpy_angles
+    from noisemodels.sphere import direction_to_pixel, interpolation_weights, mirror_pixels, to_healpy_angles
 
     d = comp.directions
-    npix = hp.nside2npix(d.nside)
-    full = np.full(npix, np.nan)
-    up = hp.ang2pix(d.nside, *to_healpy_angles(d.azimuth_rad, d.elevation_rad))
-    full[up] = comp.weight_k_sr / d.solid_angle_sr
-    theta, phi = hp.pix2ang(d.nside, np.arange(npix))
-    below = np.isnan(full)
-    mirror = hp.ang2pix(d.nside, np.pi - theta[below], phi[below])  # the same bearing, elevation reflected
-    full[below] = np.nan_to_num(full[mirror])
+    full = np.zeros(12 * d.nside * d.nside)
+    full[direction_to_pixel(d.nside, d.azimuth_rad, d.elevation_rad)] = comp.weight_k_sr / d.solid_angle_sr
+    below, mirror = mirror_pixels(d.nside)
+    full[below] = full[mirror]  # the same bearing, elevation reflected
     az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
     el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
     A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
-    return hp.get_interp_val(full, *to_healpy_angles(A.ravel(), E.ravel())).reshape(A.shape)
+    pix, wgt = interpolation_weights(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
+    return np.sum(wgt * full[pix], axis=0).reshape(A.shape)
 
 
 def sky_moment(results) -> tuple[int, int]:
@@ -338,10 +335,14 @@ def _window(x, values):
 
 def target_window(ds, target_index: int) -> tuple[list[float], np.ndarray]:
     """The UTC hours one target is listened at, in listening order (a night across midnight: 22, 23, 0 ... 6),
-    and their positions on an axis that runs past 24 so the night is one span (22, 23, 24 ... 30)."""
-    gains = ds["snr_gain_db"].isel(target=target_index).values  # antenna, month, hour
+    and their positions on an axis that runs past 24 so the night is one span (22, 23, 24 ... 30).  ``ds``: the
+    labelled results (a Results, its Dataset or :class:`snrgain.model.labelled.Labelled`)."""
+    from snrgain.model.labelled import Labelled
+
+    lab = Labelled.of(ds)
+    gains = lab.get("snr_gain_db", target=target_index)  # antenna, month, hour
     listened = np.any(np.isfinite(gains), axis=(0, 1))
-    hours = [float(h) for h, keep in zip(ds["utc_hour"].values, listened) if keep]
+    hours = [float(h) for h, keep in zip(lab.coord("utc_hour"), listened) if keep]
     return unwrapped(hours, 24.0)
 
 
@@ -350,32 +351,40 @@ def snr_over_hours(results, *, ax=None):
     atmospheric noise at its P.372 deciles on every point.  Each panel's axis runs over the target's own listening
     window in its order, starting where the window starts: a night across midnight is one continuous span.
 
-    The numbers are read from the labelled results (:meth:`Results.to_xarray`: ``snr_gain_db`` and
-    ``snr_gain_atmospheric_deciles_db`` by antenna, target, month and UTC hour); ``results`` may be that Dataset
-    itself.  ``ax``: a sequence of one Axes per target.
+    The numbers are read from the labelled results (:func:`snrgain.model.labelled.labelled`, the arrays of
+    :meth:`Results.to_xarray`: ``snr_gain_db`` and ``snr_gain_atmospheric_deciles_db`` by antenna, target, month
+    and UTC hour); ``results`` may be that Dataset itself.  ``ax``: a sequence of one Axes per target.
     """
+    from snrgain.model.labelled import ATMOSPHERIC_DECILES, Labelled
+
     own = ax is None
-    ds = results.to_xarray() if hasattr(results, "to_xarray") else results
-    nt = ds.sizes["target"]
+    lab = Labelled.of(results)
+    nt = lab.sizes["target"]
     fig, axes = _axes(ax, n=nt, figsize=(8.5, 3.2 * nt + 1.0))
     atm = False
-    looks = looks_of(ds)
-    names = [str(n) for n in ds["antenna"].values]
-    candidates = [k for k, ref in enumerate(ds["is_reference"].values) if not ref]
-    ref_name = names[int(np.flatnonzero(ds["is_reference"].values)[0])]
+    names = [str(n) for n in lab.coord("antenna")]
+    looks = antenna_looks(names, [str(f) for f in lab.coord("family")])
+    is_ref = lab.coord("is_reference").astype(bool)
+    candidates = [k for k, ref in enumerate(is_ref) if not ref]
+    ref_name = names[int(np.flatnonzero(is_ref)[0])]
+    hours = [float(h) for h in lab.coord("utc_hour")]
+    upper, lower = ATMOSPHERIC_DECILES.index("upper"), ATMOSPHERIC_DECILES.index("lower")
     for i, axi in enumerate(axes):
-        order, x = target_window(ds, i)
+        order, x = target_window(lab, i)
+        cols = [hours.index(h) for h in order]
         for k in candidates:
             lk = looks[names[k]]
-            gain = ds["snr_gain_db"].isel(antenna=k, target=i).mean("month")
-            v = gain.sel(utc_hour=order).values if order else np.array([])
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)  # a month not listened: all NaN
+                # mean over the months listened (NaN elsewhere), as xarray's skipna mean
+                gain = np.nanmean(lab.get("snr_gain_db", antenna=k, target=i), axis=0)
+                band = np.nanmean(lab.get("snr_gain_atmospheric_deciles_db", antenna=k, target=i), axis=1)
+            v = gain[cols] if order else np.array([])
             if not np.any(np.isfinite(v)):
                 continue
             xs, vs = _window(x, v)
             axi.plot(xs, vs, marker=lk.marker, ms=5, label=names[k], **lk.line())
-            band = ds["snr_gain_atmospheric_deciles_db"].isel(antenna=k, target=i).mean("month")
-            hi = band.sel(atmospheric_decile="upper", utc_hour=order).values
-            lo = band.sel(atmospheric_decile="lower", utc_hour=order).values
+            hi, lo = band[upper][cols], band[lower][cols]
             if np.any(np.isfinite(hi)):
                 atm = True
                 _, v_hi = _window(x, hi)
@@ -384,7 +393,7 @@ def snr_over_hours(results, *, ax=None):
                 axi.vlines(x, np.fmin(hi, lo), np.fmax(hi, lo), color=lk.color, lw=1.0, alpha=0.7)
         axi.axhline(0.0, label=f"{ref_name} (reference)", **looks[ref_name].line())
         axi.set_ylabel("SNR gain (dB)")
-        axi.set_title(f"toward {ds['target'].values[i]}", fontsize=10, loc="left")
+        axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left")
         axi.grid(alpha=0.3)
         if len(x):
             axi.set_xticks(x, [f"{h:g}" for h in order])
@@ -392,7 +401,7 @@ def snr_over_hours(results, *, ax=None):
         axi.set_xlabel("UTC hour (the target's listening window, in order)")
     axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     band = "; bands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
-    title = f"SNR gain over the reference through the hours, {ds.attrs['frequency_hz'] / 1e6:g} MHz{band}"
+    title = f"SNR gain over the reference through the hours, {lab.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
         fig.suptitle(title, fontsize=10)
         fig.tight_layout()
@@ -406,12 +415,15 @@ def ranking_chart(results, *, ax=None):
     ``rdf_db``, ``best``, ``margin_db``); ``results`` may be that Dataset itself.  ``ax``: a sequence of three Axes
     (SNR gain, RDF, margin).
     """
+    from snrgain.model.labelled import Labelled
+
     own = ax is None
-    ds = results.to_xarray() if hasattr(results, "to_xarray") else results
-    cands = ds.isel(antenna=np.flatnonzero(~ds["is_reference"].values)[::-1])  # the first candidate at the top
-    names = [str(n) for n in cands["antenna"].values]
-    quantiles = cands["snr_gain_quantile_db"]
-    targets = [str(t) for t in ds["target"].values]
+    lab = Labelled.of(results)
+    all_names = [str(n) for n in lab.coord("antenna")]
+    keep = np.flatnonzero(~lab.coord("is_reference").astype(bool))[::-1]  # the first candidate at the top
+    names = [all_names[k] for k in keep]
+    quantiles = lab.get("snr_gain_quantile_db")[keep]  # (antenna, target, quantile)
+    targets = [str(t) for t in lab.coord("target")]
     nt = len(targets)
     y = np.arange(len(names))
     h = 0.8 / nt
@@ -423,17 +435,18 @@ def ranking_chart(results, *, ax=None):
         sharey=True,
         width_ratios=[2, 1.2, 1],
     )
-    looks = looks_of(ds)
+    looks = antenna_looks(all_names, [str(f) for f in lab.coord("family")])
     colors = [looks[n].color for n in names]
+    rdf = lab.get("rdf_db")[keep]  # (antenna, target)
     for ti, (t, tl) in enumerate(zip(targets, target_looks(nt))):
         off = ((nt - 1) / 2 - ti) * h  # the first target on top, as the legend lists them
-        lo, med, hi = (quantiles.isel(target=ti).sel(quantile=q).values for q in QUANTILES)
+        lo, med, hi = (quantiles[:, ti, QUANTILES.index(q)] for q in QUANTILES)
         bars = {"height": h, "color": colors, "edgecolor": "black", "hatch": tl.hatch, "lw": 0.6}
         axes[0].barh(y + off, med, alpha=0.85, **bars)
         axes[0].bar(0, 0, color="white", edgecolor="black", hatch=tl.hatch, label=t)  # the target's legend swatch
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
-        axes[1].barh(y + off, cands["rdf_db"].isel(target=ti).values, **bars)
-        best = names.index(str(ds["best"].values[ti]))
+        axes[1].barh(y + off, rdf[:, ti], **bars)
+        best = names.index(str(lab.coord("best")[ti]))
         for k, (yi, v, top) in enumerate(zip(y + off, med, hi)):
             axes[0].text(
                 max(top, 0),
@@ -453,8 +466,8 @@ def ranking_chart(results, *, ax=None):
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
     axes[1].set_title("RDF per target", fontsize=10)
-    target = ds.attrs["margin_target_db"]
-    margin = cands["margin_db"].min(("month", "utc_hour")).values
+    target = lab.attrs["margin_target_db"]
+    margin = np.nanmin(lab.get("margin_db")[keep], axis=(1, 2))
     axes[2].barh(
         y,
         margin,
@@ -471,7 +484,7 @@ def ranking_chart(results, *, ax=None):
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
-    at = ds.attrs
+    at = lab.attrs
     title = f"Ranking at {at['site']}, {at['frequency_hz'] / 1e6:g} MHz (reference: {at['reference']})"
     if own:
         fig.suptitle(title, fontsize=11)
@@ -505,8 +518,6 @@ def site_plan(results, *, plan: dict | None = None, ax=None):
 def layout_plan(plan: dict, *, ax=None):
     """A layout on the lot (the site plan with the placed candidates where the layout puts them, each with the SNR
     gain it reaches).  ``plan`` is :func:`snrgain.tools.layout.plan_data`."""
-    from snrgain.outputs.style import antenna_looks
-
     looks = antenna_looks([a["name"] for a in plan["antennas"]], [a["family"] for a in plan["antennas"]])
     return _draw_plan(plan, looks, f"Layout, {plan['site']}", ax=ax)
 
