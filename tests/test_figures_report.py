@@ -249,3 +249,36 @@ def test_report_escapes_the_s_meter_reading_below_s1():
     quiet = [replace(a, noise_dbm=a.noise_dbm - 60.0) for a in r.antennas]  # every antenna far below S1
     html = report.render(replace(r, reference=quiet[0], candidates=quiet[1:]))
     assert "&lt;S1" in html and "<S1" not in html
+
+
+def test_figures_drawn_by_workers_are_the_bytes_drawn_in_this_process(results, monkeypatch):
+    # outputs.drawing shares the figures among forked workers; the PNGs must be byte for byte what drawing them
+    # one after the other here gives, in the jobs' order.
+    from functools import partial
+
+    from snrgain.outputs import drawing
+
+    jobs = [
+        (partial(plots.azimuth_pattern, results, target_index=0), "png", plots.SAVE_OPTIONS),
+        (partial(plots.ranking_chart, results), "png", plots.SAVE_OPTIONS),
+        (partial(plots.elevation_pattern, results, target_index=0), "png", plots.SAVE_OPTIONS),
+    ]
+    monkeypatch.setenv(drawing.ENV_WORKERS, "1")
+    alone = drawing.draw_all(jobs)
+    monkeypatch.setenv(drawing.ENV_WORKERS, "2")
+    if drawing.workers(len(jobs)) < 2:
+        pytest.skip("one core or no fork here: only the serial path can run")
+    counted = []
+    shared = drawing.draw_all(jobs, done=lambda: counted.append(1))
+    assert shared == alone and len(counted) == len(jobs)
+    assert all(b.startswith(b"\x89PNG") for b in shared)
+
+
+def test_workers_setting_is_checked(monkeypatch):
+    from snrgain.outputs import drawing
+
+    monkeypatch.setenv(drawing.ENV_WORKERS, "many")
+    with pytest.raises(ValueError, match="SNRGAIN_WORKERS='many'"):
+        drawing.workers(4)
+    monkeypatch.setenv(drawing.ENV_WORKERS, "1")
+    assert drawing.workers(4) == 1

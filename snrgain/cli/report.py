@@ -106,18 +106,24 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
     existing = [str(p) for p, _, _ in jobs if p.exists()]
     if existing and not overwrite:
         raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
+    from functools import partial
+
     from snrgain.files import write_set
+    from snrgain.outputs.drawing import draw_all
 
     with progress(len(jobs), "figures") as step:
+        drawn = draw_all(
+            [(partial(fn, results, **kw), fmt, plots.SAVE_OPTIONS) for _, fn, kw in jobs],
+            done=step,
+        )
 
-        def writer(fn, kw):
-            def write(tmp_path):
-                plots.save(fn(results, **kw), tmp_path)
-                step()
+    def writer(data):
+        def write(tmp_path):
+            Path(tmp_path).write_bytes(data)
 
-            return write
+        return write
 
-        # The set is drawn into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
-        written = write_set(d, {p.name: writer(fn, kw) for p, fn, kw in jobs}, overwrite=overwrite)
+    # The set is written into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
+    written = write_set(d, {p.name: writer(data) for (p, _, _), data in zip(jobs, drawn)}, overwrite=overwrite)
     for path in written:
         click.echo(f"wrote {path}", err=True)

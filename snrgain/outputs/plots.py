@@ -692,7 +692,11 @@ FIGURES = {
 """Figure functions by short name (for the command line)."""
 
 
-def save(fig, path, *, overwrite: bool = False, dpi: int = 110) -> Path:
+SAVE_OPTIONS = {"dpi": 110, "bbox_inches": "tight"}
+"""savefig's keywords for the figure files (PNG resolution; the bounding box that holds outside legends)."""
+
+
+def save(fig, path, *, overwrite: bool = False, dpi: int = SAVE_OPTIONS["dpi"]) -> Path:
     """Write a figure to PNG or SVG (by the suffix), whole or not at all; never replace without ``overwrite``."""
     from snrgain.files import write_atomic
 
@@ -700,4 +704,5 @@ def save(fig, path, *, overwrite: bool = False, dpi: int = 110) -> Path:
     fmt = p.suffix.lower().lstrip(".")
     if fmt not in ("png", "svg"):
         raise ValueError(f"{p}: figures are written as .png or .svg")
-    return write_atomic(p, lambda tmp: fig.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight"), overwrite=overwrite)
+    opts = {**SAVE_OPTIONS, "dpi": dpi}
+    return write_atomic(p, lambda tmp: fig.savefig(tmp, format=fmt, **opts), overwrite=overwrite)

@@ -9,7 +9,6 @@ scripts and loads nothing from elsewhere.
 from __future__ import annotations
 
 import html
-import io
 from datetime import UTC, datetime
 
 import numpy as np
@@ -86,10 +85,8 @@ figcaption { font-size: 0.9em; color: #444; }
 """
 
 
-def _svg(fig) -> str:
-    buf = io.StringIO()
-    fig.savefig(buf, format="svg", bbox_inches="tight")
-    text = buf.getvalue()
+def _inline(svg: bytes) -> str:
+    text = svg.decode("utf-8")
     return text[text.index("<svg") :]  # drop the XML prolog and doctype: the SVG sits inline in HTML
 
 
@@ -295,12 +292,20 @@ def _build(r) -> str:
 def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]:
     """(title, figure, caption) for every figure of the report; ``plan``: the scenario's site plan
     (:func:`snrgain.outputs.siteplan.plan_of`), else what the results alone give."""
+    return [(title, make(), caption) for title, make, caption in figure_makers(r, plan=plan)]
+
+
+def figure_makers(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]:
+    """(title, a function that makes the figure, caption) for every figure of the report (see
+    :func:`figure_list`): the figures are made where they are drawn (snrgain.outputs.drawing)."""
+    from functools import partial
+
     figs = []
     for i, t in enumerate(r.targets):
         figs.append(
             (
                 f"Azimuth pattern toward {t['name']}",
-                plots.azimuth_pattern(r, target_index=i),
+                partial(plots.azimuth_pattern, r, target_index=i),
                 "Gain of each antenna at the target's elevation (one colour per antenna, one line style and marker per "
                 "family, as in every figure); arrows and hollow marks show targets, black crosses local noise sources.",
             )
@@ -308,7 +313,7 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
         figs.append(
             (
                 f"Elevation pattern toward {t['name']}",
-                plots.elevation_pattern(r, target_index=i),
+                partial(plots.elevation_pattern, r, target_index=i),
                 "Gain against elevation toward the target's bearing; the hatched band (the target's hatching) is where "
                 "its signals arrive.",
             )
@@ -317,7 +322,7 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
     figs.append(
         (
             "Noise sky",
-            plots.noise_sky(r, month_index=month_index, hour_index=hour_index),
+            partial(plots.noise_sky, r, month_index=month_index, hour_index=hour_index),
             f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC in month "
             f"{r.months[month_index]} (the middle of the listening months and hours), interpolated on the sphere "
             "between the model's pixels; grey where no noise arrives.",
@@ -326,7 +331,7 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
     figs.append(
         (
             "SNR gain over the hours",
-            plots.snr_over_hours(r),
+            partial(plots.snr_over_hours, r),
             "Per target, mean over its months, over its own listening window in order (a night across midnight "
             "is one span); bands and bars show atmospheric noise at its P.372 deciles where included.",
         )
@@ -334,7 +339,7 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
     figs.append(
         (
             "Ranking",
-            plots.ranking_chart(r),
+            partial(plots.ranking_chart, r),
             "Median SNR gain per target with its 10-90 % band (colour: the antenna, as in every figure; hatching: "
             "the target); RDF per target; margin of external noise.",
         )
@@ -345,7 +350,7 @@ def figure_list(r, *, plan: dict | None = None) -> list[tuple[str, object, str]]
         figs.append(
             (
                 "Site plan",
-                plots.site_plan(r, plan=plan),
+                partial(plots.site_plan, r, plan=plan),
                 f"The lot, keep-out areas, the transmitting vertical's clearance, placed noise sources and every "
                 f"antenna as built, to scale in {'feet' if unit == 'ft' else 'metres'}; wires off the lot and "
                 "crossings marked."
@@ -378,9 +383,13 @@ def render(results, *, title: str | None = None, plan: dict | None = None) -> st
         _build(r),
         "<h2 id='figures'>Figures</h2>",
     ]
-    for i, (name, fig, caption) in enumerate(figure_list(r, plan=plan)):
+    from snrgain.outputs.drawing import draw_all
+
+    makers = figure_makers(r, plan=plan)
+    drawn = draw_all([(make, "svg", {"bbox_inches": "tight"}) for _, make, _ in makers])
+    for i, ((name, _, caption), svg) in enumerate(zip(makers, drawn)):
         parts.append(
-            f"<figure id='figure-{i + 1}'>{_svg(fig)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
+            f"<figure id='figure-{i + 1}'>{_inline(svg)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
             "</figcaption></figure>"
         )
     parts.append("<h2 id='models'>Models, sources and limits</h2><table>")
