@@ -38,7 +38,15 @@ def _si(info: ValidationInfo | None) -> bool:
     return bool(info is not None and isinstance(info.context, dict) and info.context.get("si"))
 
 
-_SI_SYMBOL = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg", "time": "s"}
+_SI_SYMBOL = {
+    "length": "m",
+    "frequency": "Hz",
+    "conductivity": "S/m",
+    "resistance": "ohm",
+    "angle": "deg",
+    "time": "s",
+    "power": "W",
+}
 
 
 def _fmt(x: float, dimension: str) -> str:

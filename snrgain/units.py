@@ -40,6 +40,7 @@ DIMENSIONS: dict[str, tuple[str, str, bool]] = {
     "resistance": ("ohm", "'10 ohm'", True),
     "angle": ("radian", "'45 deg' or a bare number of degrees", True),
     "time": ("second", "'120 ns' or '0.12 us'", False),
+    "power": ("watt", "'10 kW' or '500 W'", False),
 }
 
 M_PER_FT = 0.3048
@@ -131,6 +132,7 @@ UNITS: dict[str, dict[str, float]] = {
         "radians": 1.0,
     },
     "time": {"s": 1.0, "ms": 1e-3, "us": 1e-6, "\u00b5s": 1e-6, "\u03bcs": 1e-6, "ns": 1e-9},
+    "power": {"W": 1.0, "mW": 1e-3, "kW": 1e3, "MW": 1e6},
 }
 """The units each dimension accepts, and the SI value of one of each."""
 

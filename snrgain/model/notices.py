@@ -17,7 +17,10 @@ class Notice:
     Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
     preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg,
     lobe_deg, off_deg: an array whose main lobe points more than 90 deg away from its bearing),
-    ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|).
+    ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|),
+    ``strong-signal-overload`` (stations, loudest, loudest_hz, stage, stage_input_dbm, p1db_dbm, margin_db, over_db,
+    filter_db, assumed), ``strong-signal-product`` (order, freq_hz, stations, stage, level_dbm, noise_dbm, over_db,
+    filter_db, assumed).
     """
 
     code: str

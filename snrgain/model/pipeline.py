@@ -18,7 +18,9 @@ go through these functions:
 7. :func:`antenna_results`: SNR gain over the reference, RDF, front-to-back, the noise budget through each
    antenna's chain (:func:`snrgain.physics.chain.noise_budget`) and the build sheet;
 8. :func:`decide`: per target the candidates ranked by median SNR gain toward it, the station plan on the same
-   statistic (:func:`snrgain.decide.plan.station_plan`) and :func:`notices`.
+   statistic (:func:`snrgain.decide.plan.station_plan`) and :func:`notices`;
+9. :func:`snrgain.model.strong.with_strong_signals`: nearby transmitters' levels at each antenna's first active
+   stage, and the antennas they would overload.
 
 Nothing is summed or averaged in dB over targets.
 """
@@ -41,6 +43,7 @@ from snrgain.model.products import (
 )
 from snrgain.model.results import PatternCuts, Results
 from snrgain.model.spread import snr_spread
+from snrgain.model.strong import with_strong_signals
 from snrgain.model.steering import nearest_target, repoint, sky_forms, steer, with_antennas, with_candidates
 from snrgain.scenario import Scenario, load
 from snrgain.sky import noise as noisemod
@@ -67,7 +70,8 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: boo
     sc = steer(sc, grid, skies)
     nominal = products(sc, sc.antennas, grid, skies)
     spread = snr_spread(sc, grid, skies, nominal)
-    return decide(sc, skies, antenna_results(sc, nominal, skies, spread), pattern_cuts(sc))
+    results = decide(sc, skies, antenna_results(sc, nominal, skies, spread), pattern_cuts(sc))
+    return with_strong_signals(sc, results)
 
 
 MAX_SECONDS = 300.0

@@ -138,6 +138,9 @@ class Results:
     local_sources: list[dict[str, Any]] = field(default_factory=list)
     site_plan: dict[str, Any] | None = field(default=None, repr=False)
     """The site to scale (snrgain.outputs.siteplan.plan_of), in metres; what figures and the report draw."""
+    strong_signals: list[dict[str, Any]] = field(default_factory=list)
+    """Per antenna and nearby transmitter ([[strong_signal]]): its field, the level at the antenna's terminals and
+    at the first active stage (snrgain.model.strong)."""
 
     @property
     def antennas(self) -> list[AntennaResult]:
@@ -255,6 +258,7 @@ class Results:
                 "candidates": [_antenna_dict(c) for c in self.candidates],
                 "build": {c.name: c.build for c in self.candidates},
                 "local_sources": self.local_sources,
+                "strong_signals": self.strong_signals,
                 "warnings": self.warnings,
             }
         )

@@ -12,6 +12,12 @@ from snrgain.model.notices import Notice
 from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
 
 
+def _assumed(keys) -> str:
+    if not keys:
+        return ""
+    return f" (its {', '.join(keys)} assumed: give them in [chain.preamp] or [receiver] from the datasheet)"
+
+
 def notice_text(n: Notice) -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one)."""
     v = n.values
@@ -51,6 +57,23 @@ def notice_text(n: Notice) -> str:
             f"{n.antenna}: comes within {v['distance_m']:.0f} m of the transmitting vertical (keep "
             f"{v['clearance_m']:.0f} m): a resonant vertical nearby re-radiates what it receives and distorts the "
             "pattern; detuning it while receiving (opening its feed, or a detuning network) is the usual cure"
+        )
+    if n.code == "strong-signal-overload":
+        return (
+            f"{n.antenna}: nearby transmitters put {v['stage_input_dbm']:+.0f} dBm into the {v['stage']} "
+            f"(loudest: {v['loudest']}, {v['loudest_hz'] / 1e6:g} MHz), {v['over_db']:.0f} dB more than it takes "
+            f"safely (its 1 dB compression point {v['p1db_dbm']:+g} dBm less {v['margin_db']:g} dB)"
+            + _assumed(v["assumed"])
+            + f"; a filter (e.g. a high-pass below the band) of at least {v['filter_db']:.0f} dB at those "
+            "frequencies before the first amplifier cures it"
+        )
+    if n.code == "strong-signal-product":
+        kind = "second" if v["order"] == 2 else "third"
+        return (
+            f"{n.antenna}: {v['stations'][0]} and {v['stations'][1]} mix in the {v['stage']} into a {kind}-order "
+            f"product at {v['freq_hz'] / 1e6:.3f} MHz of {v['level_dbm']:+.0f} dBm, {v['over_db']:.0f} dB above the "
+            f"quietest hour's noise there" + _assumed(v["assumed"]) + f"; {v['filter_db']:.0f} dB of filtering at "
+            "both stations' frequencies before the first amplifier brings it down to the noise"
         )
     if n.code == "source-in-keep-out":
         return f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r}"

@@ -27,6 +27,7 @@ from .model import Scenario, ScenarioModel, model_problems
 from .noise import find_p372_dir, noise_settings
 from .receiver import chain_from_section, resolve_receiver
 from .site import Site
+from .strong import resolve_stations, stage_limits
 from .targets import resolve_targets
 from .times import resolve_times
 
@@ -81,6 +82,8 @@ class Resolved:
     receiver: rx.Receiver | None = None
     chain: chainmod.Chain | None = None
     """The scenario's [chain], for antennas without one of their own."""
+    stations: tuple = ()
+    """[[strong_signal]] as snrgain.physics.strong.Station."""
 
 
 def check_local_sources(model: ScenarioModel, built: Built) -> list[tuple[str, str]]:
@@ -112,6 +115,11 @@ def resolve_sections(model: ScenarioModel | None, base_dir: Path | None, option,
         )
     except ValueError as exc:
         problems.append(("receiver", str(exc)))
+    for i, section in enumerate(model.strong_signal):
+        try:
+            out.stations += resolve_stations([section], model.site.latitude, model.site.longitude)
+        except ValueError as exc:
+            problems.append((f'strong_signal {i + 1} ("{section.name}")', str(exc)))
     return out
 
 
@@ -146,4 +154,6 @@ def assemble(label: str, model: ScenarioModel, built: Built, resolved: Resolved,
         uncertainty=Uncertainty.of(model.uncertainty),
         max_antennas=model.plan.max_antennas,
         placeable=built.placeable,
+        strong_signals=resolved.stations,
+        stage_limits=tuple(stage_limits(c if c is not None else model.chain, model.receiver) for c in built.chains),
     )

@@ -13,6 +13,7 @@ from snrgain.antennas import Antenna
 from snrgain.fields import StrictModel
 from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
+from snrgain.physics import strong as strongmod
 from snrgain.physics import targets as targetmod
 from snrgain.sky import noise as noisemod
 
@@ -22,6 +23,7 @@ from .files import MAX_ITEMS
 from .noise import Noise
 from .receiver import ChainSection, Receiver
 from .site import Site, SiteSection
+from .strong import StrongSignal
 from .targets import Target
 from .times import Time, Times
 
@@ -42,6 +44,7 @@ class ScenarioModel(StrictModel):
     compute: Compute = Compute()
     uncertainty: UncertaintySection = UncertaintySection()
     plan: PlanSection = PlanSection()
+    strong_signal: list[StrongSignal] = Field(default_factory=list, max_length=MAX_ITEMS)
 
 
 def model_problems(model: ScenarioModel) -> list[tuple[str, str]]:
@@ -68,6 +71,7 @@ def unique_names(model: ScenarioModel) -> list[tuple[str, str]]:
         ("target", [t.name for t in model.target]),
         ("noise.local", [s.name for s in model.noise.local]),
         ("site.keep_out", [k.name for k in model.site.keep_out]),
+        ("strong_signal", [s.name for s in model.strong_signal]),
     ]
     for key, names in groups:
         seen: dict[str, int] = {}
@@ -114,6 +118,10 @@ class Scenario:
     """The most receiving antennas the station plan may add to the reference (None: as many as help)."""
     placeable: dict[str, Any] = field(default_factory=dict)
     """Candidates that ``snrgain layout`` may move: name -> PlaceSection (the ranges it may search)."""
+    strong_signals: tuple[strongmod.Station, ...] = ()
+    """Nearby transmitters ([[strong_signal]]), as distance and bearing from the site."""
+    stage_limits: tuple[strongmod.StageLimits, ...] = ()
+    """``stage_limits[i]``: the large-signal limits of the first active stage of ``chains[i]``."""
 
     @property
     def antennas(self) -> list[Antenna]:

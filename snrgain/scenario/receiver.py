@@ -11,11 +11,16 @@ from snrgain.fields import PowerDbm, StrictModel, decibels, quantity
 from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
 
+from .strong import LimitDbm
+
 
 class Receiver(StrictModel):
     noise_figure: decibels(0.0, 40.0) | None = None
     noise_floor: PowerDbm | None = None
     margin_target: decibels(-20.0, 60.0) = rx.DEFAULT_MARGIN_TARGET_DB
+    p1db: LimitDbm | None = None
+    iip3: LimitDbm | None = None
+    iip2: LimitDbm | None = None
 
     @model_validator(mode="after")
     def _one(self):
@@ -45,6 +50,9 @@ class Preamp(StrictModel):
     gain: decibels(0.0, 50.0)
     noise_figure: decibels(0.0, 20.0)
     position: Literal["antenna", "receiver"] = "receiver"
+    p1db: LimitDbm | None = None
+    iip3: LimitDbm | None = None
+    iip2: LimitDbm | None = None
 
 
 class ChainSection(StrictModel):

@@ -1,0 +1,108 @@
+"""The last stage: strong signals of nearby transmitters at each antenna's terminals and first active stage
+(:mod:`snrgain.physics.strong`), with a notice for each antenna that would overload and the filter that cures it.
+
+It reads the decided results (each antenna's noise at the receiver and its chain's gain) and returns new results
+with ``strong_signals`` (one row per antenna and station) and the notices added; nothing else changes.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from snrgain.model.notices import Notice
+from snrgain.physics import strong as st
+from snrgain.physics.ground import ETA0_OHM
+
+
+def _gain_before_db(chain) -> tuple[float, int]:
+    """(gain [dB] from the terminals to the first active stage's input, that stage's index)."""
+    idx = chain.preamp_index if chain.preamp_index is not None else len(chain.stages) - 1
+    g = float(np.prod([s.gain for s in chain.stages[:idx]])) if idx else 1.0
+    return 10.0 * np.log10(g), idx
+
+
+def with_strong_signals(sc, results):
+    """``results`` with the strong-signal rows and notices of ``sc.strong_signals`` (unchanged without any)."""
+    if not sc.strong_signals:
+        return results
+    rows, notices = [], []
+    listen_hz = sc.freq_hz
+    by_name = {a.name: a for a in results.antennas}
+    for antenna, chain, limits in zip(sc.antennas, sc.chains, sc.stage_limits):
+        before_db, _ = _gain_before_db(chain)
+        at_stage: dict[str, tuple[float, float]] = {}
+        for station in sc.strong_signals:
+            field = st.ground_wave_field_v_per_m(station, sc.site.ground)
+            try:
+                ground = getattr(antenna, "ground", sc.site.ground)  # the soil under the antenna sets R_v
+                area = st.ground_wave_aperture_m2(antenna, station.freq_hz, station.bearing_rad, ground)
+            except ValueError as exc:  # a family that cannot be computed at that frequency says why
+                rows.append({"antenna": antenna.name, "station": station.name, "not_computed": str(exc)})
+                continue
+            terminal_dbm = st.dbm(field**2 / ETA0_OHM * area)
+            stage_dbm = float(terminal_dbm + before_db)
+            at_stage[station.name] = (station.freq_hz, stage_dbm)
+            rows.append(
+                {
+                    "antenna": antenna.name,
+                    "station": station.name,
+                    "frequency_hz": station.freq_hz,
+                    "field_v_per_m": field,
+                    "terminal_dbm": terminal_dbm,  # available power: into a conjugate-matched load
+                    "terminal_v_rms_50_ohm": float(np.sqrt(10 ** (terminal_dbm / 10) * 1e-3 * 50.0)),
+                    "stage": limits.name,
+                    "stage_input_dbm": stage_dbm,
+                }
+            )
+        if not at_stage:
+            continue
+        total_dbm = st.dbm(sum(10 ** (p / 10) * 1e-3 for _, p in at_stage.values()))
+        headroom = limits.p1db_dbm - total_dbm
+        if headroom < st.COMPRESSION_MARGIN_DB:
+            loudest = max(at_stage, key=lambda n: at_stage[n][1])
+            notices.append(
+                Notice(
+                    "strong-signal-overload",
+                    antenna.name,
+                    {
+                        "stations": sorted(at_stage),
+                        "loudest": loudest,
+                        "loudest_hz": at_stage[loudest][0],
+                        "stage": limits.name,
+                        "stage_input_dbm": total_dbm,
+                        "p1db_dbm": limits.p1db_dbm,
+                        "margin_db": st.COMPRESSION_MARGIN_DB,
+                        "over_db": st.COMPRESSION_MARGIN_DB - headroom,
+                        "filter_db": st.COMPRESSION_MARGIN_DB - headroom,
+                        "assumed": [k for k in limits.assumed if k == "p1db"],
+                    },
+                )
+            )
+        result = by_name.get(antenna.name)
+        if result is None:
+            continue
+        # the quietest hour's external noise at the stage's input: where a product is heard first
+        noise_stage_dbm = float(np.min(result.noise_dbm)) - float(result.chain.get("gain_db", 0.0)) + before_db
+        for p in st.products_in_band(at_stage, limits, listen_hz):
+            if p.level_dbm > noise_stage_dbm:
+                excess = p.level_dbm - noise_stage_dbm
+                notices.append(
+                    Notice(
+                        "strong-signal-product",
+                        antenna.name,
+                        {
+                            "order": p.order,
+                            "freq_hz": p.freq_hz,
+                            "stations": list(p.stations),
+                            "stage": limits.name,
+                            "level_dbm": p.level_dbm,
+                            "noise_dbm": noise_stage_dbm,
+                            "over_db": excess,
+                            "filter_db": excess / p.order,
+                            "assumed": [k for k in limits.assumed if k == f"iip{p.order}"],
+                        },
+                    )
+                )
+    return replace(results, strong_signals=rows, notices=[*results.notices, *notices])

@@ -1,0 +1,164 @@
+"""Strong signals next door: the level a nearby transmitter puts at an antenna's terminals and at the first
+active stage of its chain, against that stage's limits.
+
+**The field.**  A medium-wave (or other) station radiating ``P`` from a short vertical monopole over a perfect
+ground makes 300 sqrt(P / 1 kW) mV/m at 1 km (the cymomotive force of 300 V of ITU-R P.368's curves; it follows
+from the monopole's directivity of 3: E = sqrt(3 P eta0 / (4 pi)) / r).  Over the real ground it is that times
+the dipole's ground-wave factor of :func:`noisemodels.groundwave.dipole_field` (near-field terms and Norton's
+attenuation function; flat earth, which holds to a few tens of kilometres at these frequencies).  ``power`` is
+therefore the power radiated by the station's vertical, what a licence's e.m.r.p. or a transmitter power times
+a typical efficiency gives.
+
+**The antenna's response to it.**  A ground wave is vertically polarised with the small forward tilt the soil's
+surface impedance sets.  A plane wave arriving at a small elevation e makes, just above the soil, the same field
+structure (vertical field E_inc cos(e) (1 + R_v), radial field in the ratio of the wave tilt; the Fresnel
+coefficient R_v tends to -1 at grazing), so the power a matched load takes from a ground wave of vertical field
+E at the surface is
+
+    P = |E|^2 / eta0 * lambda^2 / (4 pi) * G(az, e) / |cos(e) (1 + R_v(e))|^2     (e -> 0),
+
+with G the antenna's modelled gain over the same ground (transformer and ground losses included).  For a short
+monopole over perfect ground (G = 3 cos^2 e, R_v = 1) this is |E|^2 lambda^2 / (640 pi^2), the textbook
+available power of a short monopole, (E h_e)^2 / (4 R_rad) with R_rad = 160 pi^2 (h_e / lambda)^2.  The ratio
+settles to 0.01 dB below e = 1 deg for every family (tested); :data:`GRAZING_RAD` is used.  It is the power
+available to a conjugate-matched load: an upper bound, since a receiving antenna far off its band is badly matched
+to the chain and delivers less (by the mismatch, which this model does not compute for every family), so a warning
+errs on the side of the filter.
+
+**The first active stage.**  Between the terminals and the first amplifier: the transformer's loss, and the feed
+line's matched loss at the station's frequency when the amplifier sits at the receiver end (or there is none
+and the receiver is the first stage).  Against that stage's limits (input-referred): the 1 dB compression point
+(the total power of all strong signals; a warning when it comes within :data:`COMPRESSION_MARGIN_DB`), and the
+second- and third-order intercepts for products of two stations that land within
+:data:`IN_BAND_SPAN_HZ` of the listening frequency: P_IM2 = P1 + P2 - IIP2, P_IM3 = 2 P1 + P2 - 2 IIP3 (dBm, the
+intercept definitions; e.g. W. Hayward, R. Campbell and B. Larkin, "Experimental Methods in RF Design", ARRL
+(2003), ch. 2, from memory), warned when the product rises above the external noise at that stage's input in the
+listening bandwidth.  The filter attenuation that cures it is the excess over the limit for compression, half of
+it for a second-order product and a third for a third-order one (each dB at both stations' frequencies lowers them
+by 2 or 3 dB).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from itertools import combinations
+
+import numpy as np
+
+from noisemodels.groundwave import dipole_field
+from snrgain.physics.ground import C_M_PER_S, Ground, reflection_coefficients
+
+CYMOMOTIVE_V_PER_SQRT_KW = 300.0
+"""Field at 1 m (far-field form) of a short vertical monopole over perfect ground radiating 1 kW [V] (ITU-R
+P.368's reference cymomotive force)."""
+GRAZING_RAD = float(np.radians(0.5))
+"""Elevation at which the antennas' plane-wave response stands for their ground-wave response [rad]."""
+COMPRESSION_MARGIN_DB = 10.0
+"""Warn when the strong signals' total power comes within this of the stage's 1 dB compression point (snrgain's
+own choice: a safety margin for peaks of modulation and for blocking before compression)."""
+IN_BAND_SPAN_HZ = 100e3
+"""A product within this of the listening frequency counts as landing in the band listened to [Hz] (snrgain's own
+choice: about the width of a low band's busy part)."""
+
+
+@dataclass(frozen=True)
+class StageLimits:
+    """The first active stage's large-signal limits, input-referred [dBm]; ``assumed`` names the values that are
+    snrgain's defaults, not the user's."""
+
+    name: str
+    p1db_dbm: float
+    iip3_dbm: float
+    iip2_dbm: float
+    assumed: tuple[str, ...] = ()
+
+
+PREAMP_DEFAULTS = {"p1db_dbm": 5.0, "iip3_dbm": 20.0, "iip2_dbm": 60.0}
+"""Limits assumed for a preamplifier that gives none (input-referred dBm): typical of low-band receiving
+preamplifiers with 10-15 dB gain, recalled from memory and not from a datasheet; give the real ones."""
+RECEIVER_DEFAULTS = {"p1db_dbm": 5.0, "iip3_dbm": 20.0, "iip2_dbm": 60.0}
+"""Limits assumed for a receiver that gives none (input-referred dBm), from memory; a direct-sampling receiver
+clips near its converter's full scale, often 0 to +10 dBm: give the real ones."""
+
+
+@dataclass(frozen=True)
+class Station:
+    """A strong nearby transmitter: its frequency [Hz], radiated power [W], distance [m] and bearing [rad] from
+    the site."""
+
+    name: str
+    freq_hz: float
+    power_w: float
+    distance_m: float
+    bearing_rad: float
+
+
+def ground_wave_field_v_per_m(station: Station, ground: Ground | None) -> float:
+    """RMS vertical field of the station's ground wave at the site [V/m] (module docstring)."""
+    if ground is None:
+        rel = dipole_field(station.distance_m, station.freq_hz, permittivity=None, conductivity_s_per_m=None)
+    else:
+        rel = dipole_field(
+            station.distance_m,
+            station.freq_hz,
+            permittivity=ground.permittivity,
+            conductivity_s_per_m=ground.conductivity_s_per_m,
+        )
+    return float(CYMOMOTIVE_V_PER_SQRT_KW * np.sqrt(station.power_w / 1e3) * np.abs(rel))
+
+
+def ground_wave_aperture_m2(antenna, freq_hz: float, bearing_rad: float, ground: Ground | None) -> float:
+    """lambda^2 / (4 pi) G / |cos e (1 + R_v)|^2 at e = GRAZING_RAD: the area that, times the ground wave's
+    |E|^2 / eta0, is the power the antenna delivers to a matched load [m^2]."""
+    e = np.array([GRAZING_RAD])
+    g = float(antenna.gain_linear(freq_hz, np.array([bearing_rad]), e)[0])
+    rv, _ = reflection_coefficients(ground, e, freq_hz)
+    lam = C_M_PER_S / freq_hz
+    return lam**2 / (4 * np.pi) * g / float(np.abs(np.cos(e[0]) * (1.0 + rv[0])) ** 2)
+
+
+def dbm(watts: float) -> float:
+    return float(10.0 * np.log10(max(watts, 1e-30) / 1e-3))
+
+
+@dataclass(frozen=True)
+class Product:
+    """An intermodulation product of two stations at a stage's input."""
+
+    order: int
+    freq_hz: float
+    stations: tuple[str, str]
+    level_dbm: float
+
+
+def products_in_band(levels_dbm: dict[str, tuple[float, float]], limits: StageLimits, listen_hz: float):
+    """Second- and third-order products of every pair of stations (name -> (freq [Hz], level at the stage's
+    input [dBm])) that land within IN_BAND_SPAN_HZ of ``listen_hz``."""
+    out = []
+    for (n1, (f1, p1)), (n2, (f2, p2)) in combinations(levels_dbm.items(), 2):
+        for order, f, level in (
+            (2, f1 + f2, p1 + p2 - limits.iip2_dbm),
+            (2, abs(f1 - f2), p1 + p2 - limits.iip2_dbm),
+            (3, 2 * f1 - f2, 2 * p1 + p2 - 2 * limits.iip3_dbm),
+            (3, 2 * f2 - f1, 2 * p2 + p1 - 2 * limits.iip3_dbm),
+        ):
+            if abs(f - listen_hz) <= IN_BAND_SPAN_HZ:
+                out.append(Product(order, float(f), (n1, n2), float(level)))
+    return out
+
+
+__all__ = [
+    "COMPRESSION_MARGIN_DB",
+    "CYMOMOTIVE_V_PER_SQRT_KW",
+    "GRAZING_RAD",
+    "IN_BAND_SPAN_HZ",
+    "PREAMP_DEFAULTS",
+    "Product",
+    "RECEIVER_DEFAULTS",
+    "StageLimits",
+    "Station",
+    "dbm",
+    "ground_wave_aperture_m2",
+    "ground_wave_field_v_per_m",
+    "products_in_band",
+]
