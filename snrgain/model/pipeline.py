@@ -43,8 +43,8 @@ from snrgain.model.products import (
 )
 from snrgain.model.results import PatternCuts, Results
 from snrgain.model.spread import snr_spread
-from snrgain.model.strong import with_strong_signals
 from snrgain.model.steering import nearest_target, repoint, sky_forms, steer, with_antennas, with_candidates
+from snrgain.model.strong import with_strong_signals
 from snrgain.scenario import Scenario, load
 from snrgain.sky import noise as noisemod
 
