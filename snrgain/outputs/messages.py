@@ -54,6 +54,14 @@ def notice_text(n: Notice) -> str:
         )
     if n.code == "source-in-keep-out":
         return f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r}"
+    if n.code == "level-on-directional":
+        return (
+            f"{n.antenna}: the level of noise source {v['source']!r} was read on it, a directional antenna (its gain "
+            f"varies by {v['ripple_db']:.0f} dB around the compass; {v['gain_toward_dbi']:.1f} dBi toward the "
+            "source): an S-meter level on a directional antenna depends on its pattern toward the source, so the "
+            "source's strength is only as good as that pattern and the source's bearing and elevation; a reading on "
+            "a vertical does not depend on the bearing (name it with read_on), or give fa"
+        )
     if n.code == "man-made-extrapolated":
         return (
             f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "
