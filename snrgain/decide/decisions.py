@@ -96,6 +96,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
             "ground": "perfect" if ground is None else ground.name,
             "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
             "ground_permittivity": None if ground is None else ground.permittivity,
+            "length_unit": sc.site.length_unit,
         },
         freq_hz=sc.freq_hz,
         bandwidth_hz=sc.bandwidth_hz,

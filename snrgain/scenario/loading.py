@@ -17,6 +17,7 @@ from snrgain.errors import ScenarioError
 from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
 from snrgain.physics import targets as targetmod
+from snrgain.units import length_unit_of
 
 from .antennas import Built, build_antennas
 from .band import Band
@@ -26,7 +27,7 @@ from .local import local_levels_readable, local_sources_clear
 from .model import Scenario, ScenarioModel, model_problems
 from .noise import find_p372_dir, noise_settings
 from .receiver import chain_from_section, resolve_receiver
-from .site import Site
+from .site import Site, plan_from_latlon
 from .targets import resolve_targets
 from .times import resolve_times
 
@@ -54,7 +55,10 @@ def load(
         data, label = source, label or "<dict>"
     else:
         data, label, base_dir = read_source(source)
-    model, problems = validate(data)
+    length_unit = length_unit_of(data)
+    data, problems = plan_from_latlon(data)
+    model, more = validate(data)
+    problems += more
     built = build_antennas(data, model.band.frequency if model else None, base_dir)
     problems += built.problems
     file_reference = built.antennas[0] if built.antennas and built.wheres[0] == "reference" else None
@@ -67,7 +71,7 @@ def load(
         problems += check_local_sources(model, built, file_reference)
     if problems:
         raise ScenarioError(label, problems)
-    return assemble(label, model, built, resolved, nside, file_reference)
+    return assemble(label, model, built, resolved, nside, file_reference, length_unit)
 
 
 def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
@@ -208,7 +212,13 @@ def resolve_sections(model: ScenarioModel | None, base_dir: Path | None, option,
 
 
 def assemble(
-    label: str, model: ScenarioModel, built: Built, resolved: Resolved, nside: int | None, file_reference=None
+    label: str,
+    model: ScenarioModel,
+    built: Built,
+    resolved: Resolved,
+    nside: int | None,
+    file_reference=None,
+    length_unit: str | None = None,
 ) -> Scenario:
     """The Scenario of a problem-free model and its antennas: each antenna's chain (its own or the scenario's),
     the times on the targets' union grid, the noise seen from the reference, the weights adding to 1; each level
@@ -228,7 +238,7 @@ def assemble(
         noise = readings_kept(noise, model, built.antennas[0], file_reference)
     return Scenario(
         source=label,
-        site=Site.of(model.site),
+        site=Site.of(model.site, length_unit),
         band=Band.of(model.band),
         times=union,
         target_times=target_times,
