@@ -174,3 +174,13 @@ def test_rank_takes_the_reference_option(tmp_path):
     assert out["reference"]["name"] == "flag NE"
     res = CliRunner().invoke(cli, ["rank", str(path), "--reference", "nobody"])
     assert res.exit_code == 2 and "--reference" in res.output
+
+
+def test_report_takes_the_reference_option(tmp_path):
+    path = tmp_path / "s.toml"
+    path.write_text(toml_text(scenario()), encoding="utf-8")
+    out = tmp_path / "r.html"
+    res = CliRunner().invoke(cli, ["report", str(path), "--reference", "beverage NE", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    html = out.read_text(encoding="utf-8")
+    assert "beverage NE (reference)" in html and "no candidate beats beverage NE" in html and "tx vertical" in html
