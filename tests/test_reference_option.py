@@ -66,6 +66,7 @@ def _fa(sc, name):
 
 def test_the_option_equals_editing_the_file():
     data = scenario()
+    data["uncertainty"]["ground"] = True  # the ground spread too: each ground keeps the level read on its antenna
     by_option = evaluate(load(data, reference="beverage NE"))
     by_edit = evaluate(load(_swapped(data, "beverage NE")))
     assert by_option.reference.name == by_edit.reference.name == "beverage NE"
@@ -184,3 +185,23 @@ def test_report_takes_the_reference_option(tmp_path):
     assert res.exit_code == 0, res.output
     html = out.read_text(encoding="utf-8")
     assert "beverage NE (reference)" in html and "no candidate beats beverage NE" in html and "tx vertical" in html
+
+
+def test_on_another_ground_the_level_stays_read_on_its_antenna():
+    # The ground spread moves every antenna to other soils; a level's strength then moves so that the antenna it was
+    # read on still receives it: the same offsets whichever antenna is the reference.
+    from snrgain.model.pipeline import strength_offsets_db
+    from snrgain.model.spread import ground_nodes, on_ground
+
+    data = scenario()
+    data["uncertainty"]["ground"] = True
+    file_sc, other_sc = resolve_sources(load(data)), resolve_sources(load(data, reference="beverage NE"))
+    nodes = [
+        g for g, _ in ground_nodes(file_sc.site.ground, file_sc.site.ground_spread) if g is not file_sc.site.ground
+    ]
+    assert nodes
+    for g in nodes:
+        a = strength_offsets_db(file_sc, on_ground(file_sc, file_sc.antennas, g))
+        b = strength_offsets_db(other_sc, on_ground(other_sc, other_sc.antennas, g))
+        assert a["ballast"] == pytest.approx(b["ballast"], abs=1e-9)
+        assert abs(a["ballast"]) > 1e-3  # the ground does move it
