@@ -138,3 +138,10 @@ def test_bare_gps_numbers_in_a_metre_plan_are_warned():
     found = [n for n in site_notices(sc) if n.code == "looks-like-latlon"]
     assert {n.values["where"] for n in found} == {"the lot", "Beverage Europe's position"}
     assert "latlon" in notice_text(found[0]) and "latitude and longitude" in notice_text(found[0])
+    # one GPS corner pasted into a lot otherwise tens of metres is found too; a whole-metre corner there is not
+    data = _metre_plan()
+    data["site"]["lot"] = [[-100, -100], [210, -100], [210, 280], [-100, 280], [lat0 + 0.00012, lon0 - 0.00034]]
+    (n,) = [n for n in site_notices(load(data)) if n.code == "looks-like-latlon"]
+    assert n.values["where"] == "the lot" and n.values["point"] == pytest.approx((lat0 + 0.00012, lon0 - 0.00034))
+    data["site"]["lot"] = [[-100, -100], [210, -100], [210, 280], [-100, 280], [44, -71]]
+    assert not [n for n in site_notices(load(data)) if n.code == "looks-like-latlon"]

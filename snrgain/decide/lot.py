@@ -17,9 +17,10 @@ position or else at the plan's origin when the site has a lot), and a
 placed noise source inside a keep-out area (a house is where sources often
 are: it is said, not refused), and plan points that look like a latitude and
 longitude written as metres (``[51.4012, -0.1203]`` at a site at 51.40 N,
-0.12 W: every corner of an outline, or an antenna's position, within
-:data:`LATLON_LIKE_DEG` of the site's latitude and longitude, either way round;
-a real plan's corners do not all fit in a metre).  A lot or keep-out outline that crosses
+0.12 W: a corner of an outline, or an antenna's position, within
+:data:`LATLON_LIKE_DEG` of the site's latitude and longitude, either way round,
+with decimals, or every corner of an outline so: a real plan's corners do not
+all fit in a metre).  A lot or keep-out outline that crosses
 itself is an input error.
 
 Cautions of the trade: keep wires well clear of power lines (never run a
@@ -48,12 +49,21 @@ LATLON_LIKE_DEG = 0.5
 """A plan point [m] within this of the site's (latitude, longitude) [deg], either way round, looks like one."""
 
 
-def _latlon_like(points, site) -> bool:
-    """Every point (east, north) [m] lies within :data:`LATLON_LIKE_DEG` of the site's (latitude, longitude) or
-    (longitude, latitude): degrees written where metres belong."""
+def _latlon_like(points, site) -> tuple[float, float] | None:
+    """The first point (east, north) [m] that looks like the site's (latitude, longitude), or (longitude, latitude),
+    written as metres: within :data:`LATLON_LIKE_DEG` of it, and either every point of the outline does, or that
+    point is not whole numbers (GPS numbers carry decimals; a plan corner at [51, 0] may be meant); None if none."""
     pts = np.asarray(points, dtype=float).reshape(-1, 2)
     lat, lon = float(site.latitude_deg), float(site.longitude_deg)
-    return any(bool(np.all(np.abs(pts - np.array(order)) <= LATLON_LIKE_DEG)) for order in ((lat, lon), (lon, lat)))
+    for order in ((lat, lon), (lon, lat)):
+        near = np.all(np.abs(pts - np.array(order)) <= LATLON_LIKE_DEG, axis=1)
+        whole = np.all(pts == np.round(pts), axis=1)
+        if near.all():
+            return tuple(float(x) for x in pts[0])
+        odd = near & ~whole
+        if odd.any():
+            return tuple(float(x) for x in pts[np.flatnonzero(odd)[0]])
+    return None
 
 
 def latlon_like_notices(sc) -> list[Notice]:
@@ -72,8 +82,8 @@ def latlon_like_notices(sc) -> list[Notice]:
             outlines.append((f"{ant.name}'s elements", ant.positions))
     out = []
     for where, pts in outlines:
-        if _latlon_like(pts, site):
-            first = tuple(float(x) for x in np.asarray(pts, dtype=float).reshape(-1, 2)[0])
+        first = _latlon_like(pts, site)
+        if first is not None:
             out.append(
                 Notice(
                     "looks-like-latlon",
