@@ -205,3 +205,20 @@ def test_on_another_ground_the_level_stays_read_on_its_antenna():
         b = strength_offsets_db(other_sc, on_ground(other_sc, other_sc.antennas, g))
         assert a["ballast"] == pytest.approx(b["ballast"], abs=1e-9)
         assert abs(a["ballast"]) > 1e-3  # the ground does move it
+
+
+def test_placed_sources_under_another_reference():
+    # A placed source's level is read on the reference in force (its pickup is carried from there to every antenna):
+    # read on another antenna it is refused with the way out.  A placed source's fa stays where the file's reference
+    # stands (its default measured_at), so each antenna's noise moves only by the compact-source approximation of
+    # the reference's pickup (10 deg spread): about 0.1 dB here, not the tens of dB of a re-read level.
+    at = {"tx vertical": [0, 0], "beverage NE": [30, 40], "flag NE": [60, -20], "short vertical": [-20, 10]}
+    ants = [dict(a, position=at[a["name"]]) for a in (VERTICAL, BEVERAGE, LOOP, SHORT)]
+    level = scenario(ants[0], ants[1:], local=[{"name": "shed", "position": ["120 m", "-30 m"], "level": "S7"}])
+    with pytest.raises(ScenarioError) as err:
+        load(level, reference="short vertical")
+    assert any(p.endswith("read_on") and "measured_at" in m for p, m in err.value.problems)
+    fa = scenario(ants[0], ants[1:], local=[{"name": "shed", "position": ["120 m", "-30 m"], "fa": 70}])
+    a, b = evaluate(load(fa)), evaluate(load(fa, reference="short vertical"))
+    for x in a.antennas:
+        np.testing.assert_allclose(np.asarray(b.antenna(x.name).noise_dbm), np.asarray(x.noise_dbm), atol=0.2)
