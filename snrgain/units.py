@@ -300,3 +300,89 @@ def parse_db(value) -> float:
     if not np.isfinite(x):
         raise QuantityError(f"expected a finite value in dB, got {value!r}")
     return x
+
+
+# ---- lengths shown in the scenario's own unit ------------------------------------------------------------------
+
+LENGTH_UNITS_SHOWN = ("m", "ft")
+"""The units lengths are shown in at the edge (terminal, report, build sheet, layout text, a scenario's copy):
+the scenario's (:func:`length_unit_of`); JSON stays in metres."""
+_FEET_QUANTITY = re.compile(rf"^\s*{_NUMBER}\s*(?:ft|feet|foot|')\s*$", re.IGNORECASE)
+_METRE_QUANTITY = re.compile(rf"^\s*{_NUMBER}\s*(?:m|metres?|meters?)\s*$", re.IGNORECASE)
+_PLAN_KEYS = frozenset({"lot", "outline", "position", "positions", "tx_clearance"})
+"""Keys whose bare numbers are metres on the site plan (a vote for metres)."""
+
+
+def _length_votes(x, plan: bool = False) -> tuple[int, int]:
+    """(feet, metres): lengths written in feet and in metres under ``x`` (bare numbers under plan keys are metres)."""
+    if isinstance(x, dict):
+        ft = m = 0
+        for k, v in x.items():
+            a, b = _length_votes(v, plan or k in _PLAN_KEYS)
+            ft, m = ft + a, m + b
+        return ft, m
+    if isinstance(x, (list, tuple)):
+        ft = m = 0
+        for v in x:
+            a, b = _length_votes(v, plan)
+            ft, m = ft + a, m + b
+        return ft, m
+    if isinstance(x, str):
+        try:
+            x = normalise_text(x)
+        except QuantityError:
+            return 0, 0
+        return (1, 0) if _FEET_QUANTITY.match(x) else (0, 1) if _METRE_QUANTITY.match(x) else (0, 0)
+    if plan and isinstance(x, (int, float)) and not isinstance(x, bool):
+        return 0, 1
+    return 0, 0
+
+
+def length_unit_of(data) -> str:
+    """The unit a scenario's raw tables are written in, to show its lengths in: ``[site] units`` ("m" or "ft")
+    when given, else the unit most used by the lengths of [site] (lot, keep-outs, clearance) and of the reference's
+    and candidates' tables (positions, lengths, heights ...), bare plan numbers counting as metres; a tie is "m".
+
+    >>> length_unit_of({"site": {"lot": [["0 ft", "0 ft"], ["90 ft", "0 ft"]]}, "candidate": [{"length": "3 m"}]})
+    'ft'
+    >>> length_unit_of({"site": {"units": "m", "lot": [["0 ft", "0 ft"]]}})
+    'm'
+    """
+    if not isinstance(data, dict):
+        return "m"
+    site = data.get("site")
+    given = site.get("units") if isinstance(site, dict) else None
+    if given in LENGTH_UNITS_SHOWN:
+        return given
+    parts = [data.get(k) for k in ("site", "reference", "candidate")]
+    ft, m = _length_votes([p for p in parts if p is not None])
+    return "ft" if ft > m else "m"
+
+
+def per_m(unit: str) -> float:
+    """How many of ``unit`` make a metre."""
+    if unit not in LENGTH_UNITS_SHOWN:
+        raise ValueError(f"lengths are shown in one of {', '.join(LENGTH_UNITS_SHOWN)}; got {unit!r}")
+    return FT_PER_M if unit == "ft" else 1.0
+
+
+def length_text(x_m: float, unit: str = "m", decimals: int = 1) -> str:
+    """A length [m] in the unit shown: ``length_text(8.8392, "ft", 0)`` -> "29 ft"."""
+    return f"{x_m * per_m(unit):.{decimals}f} {unit}"
+
+
+def lengths_text(xs_m, unit: str = "m", decimals: int = 1, sep: str = " x ") -> str:
+    """Several lengths [m] in one unit named once: ``lengths_text([8.8392, 4.2672], "ft", 0)`` -> "29 x 14 ft"."""
+    k = per_m(unit)
+    return sep.join(f"{x * k:.{decimals}f}" for x in xs_m) + f" {unit}"
+
+
+def length_both_text(x_m: float, unit: str = "m", decimals: int = 1, other_decimals: int = 0) -> str:
+    """A length in the unit shown, then in the other one in brackets: "29.0 m (95 ft)" or "95.1 ft (29 m)"."""
+    other = "m" if unit == "ft" else "ft"
+    return f"{length_text(x_m, unit, decimals)} ({length_text(x_m, other, other_decimals)})"
+
+
+def length_literal(x_m: float, unit: str = "m", decimals: int = 1) -> str:
+    """A length [m] as a scenario writes it, in its unit: '"95.1 ft"' (for a copy of the scenario)."""
+    return f'"{length_text(x_m, unit, decimals)}"'

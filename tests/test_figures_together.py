@@ -231,12 +231,13 @@ def test_the_report_marks_each_antenna_with_its_figure_colour(drawn):
 
 
 def test_the_build_line_gives_a_loop_in_both_units_rounded(drawn):
-    # 26 x 13 ft as written: 7.9248 x 3.9624 m, which the build line printed to every digit
+    # 26 x 13 ft as written: 7.9248 x 3.9624 m, which the build line printed to every digit; a file in feet gets
+    # feet first (its unit), metres in brackets
     from snrgain.outputs.output import build_lines
 
     r, _, _ = drawn
     line = dict(build_lines(r))["flag north-west"]
-    assert "rectangle 7.92 x 3.96 m (26.0 x 13.0 ft)" in line
+    assert "rectangle 26.0 x 13.0 ft (7.92 x 3.96 m)" in line
 
 
 def test_the_layout_plot_is_the_site_plan_with_the_placed_antenna(tmp_path):
@@ -277,10 +278,11 @@ def test_the_layout_plot_is_the_site_plan_with_the_placed_antenna(tmp_path):
 
 
 def test_results_carry_the_whole_site_plan_for_python_use():
-    # The pipeline keeps the site plan on the results (in metres), so a report or plan drawn from Python without
-    # the scenario shows keep-outs, sources and elements too, not only the positioned antennas.
+    # The pipeline keeps the site plan on the results (coordinates in metres, shown in the scenario's unit: this
+    # file is written in feet), so a report or plan drawn from Python without the scenario shows keep-outs, sources
+    # and elements too, not only the positioned antennas.
     r = snrgain.evaluate(SITE)
     plan = r.site_plan
-    assert plan["unit"] == "m" and plan["keep_out"] and plan["sources"]
+    assert plan["unit"] == "ft" and plan["keep_out"] and plan["sources"]
     html = report.render(r)
-    assert "placed noise sources and every antenna as built, to scale in metres" in html
+    assert "placed noise sources and every antenna as built, to scale in feet" in html

@@ -37,3 +37,27 @@ def check(scenario, p372_dir):
     click.echo(f"  reference: {sc.reference.name} ({sc.reference.family})")
     for a in sc.candidates:
         click.echo(f"  candidate: {a.name} ({a.family})")
+    _geometry(sc)
+
+
+def _geometry(sc) -> None:
+    """The cheap geometry checks rank makes (lot, keep-outs, crossings, the TX vertical's clearance, plan points
+    that look like a latitude and longitude), without computing any pattern; lengths in the scenario's unit."""
+    from snrgain.decide.lot import site_notices
+    from snrgain.outputs.messages import notice_text
+    from snrgain.units import length_text
+
+    site = sc.site
+    unit = site.length_unit
+    if site.lot_m is not None:
+        lot = np.asarray(site.lot_m, dtype=float)
+        w, h = np.ptp(lot[:, 0]), np.ptp(lot[:, 1])
+        click.echo(
+            f"  lot: {len(lot)} corners, {length_text(w, unit, 0)} east-west by {length_text(h, unit, 0)} north-south"
+            f"; {len(site.keep_out)} keep-out area(s); lengths shown in {unit}"
+        )
+    found = site_notices(sc)
+    if not found:
+        click.echo("  geometry: no warnings (lot, keep-outs, crossings, clearance from the TX vertical)")
+    for n in found:
+        click.echo(f"  rank would warn: {notice_text(n, unit=unit)}")

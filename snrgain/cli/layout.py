@@ -66,14 +66,12 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
         out["plot"] = plot
     if write_to is not None:
         text = read_scenario_text(scenario)
-        write_output(write_to, lay.with_layout(text, best), overwrite=overwrite)
+        write_output(write_to, lay.with_layout(text, best, sc.site.length_unit), overwrite=overwrite)
         out["written"] = write_to
     if fmt == "json":
         emit_json(out)
         return
-    from snrgain.outputs.siteplan import plan_unit
-
-    _print(layouts, sc, unit=plan_unit(data))
+    _print(layouts, sc, unit=sc.site.length_unit)
     if plot is not None:
         click.echo(f"wrote {plot}", err=True)
 
@@ -84,7 +82,7 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
     from rich.console import Console
     from rich.table import Table
 
-    from snrgain.units import FT_PER_M
+    from snrgain.units import length_both_text, length_text
 
     console = Console()
     for rank_no, lay in enumerate(layouts, start=1):
@@ -94,12 +92,11 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
         t = Table(title=f"Layout {rank_no}: {each} (median SNR gain over {sc.reference.name})")
         for col in ("antenna", "feed (E, N)", "toward", "length", "target", "SNR gain"):
             t.add_column(col, justify="left" if col in ("antenna", "target") else "right")
-        k = FT_PER_M if unit == "ft" else 1.0
         for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets):
-            length = "-" if d.length_m is None else f"{d.length_m:.0f} m/{d.length_m * FT_PER_M:.0f} ft"
+            length = "-" if d.length_m is None else length_both_text(d.length_m, unit, 0, 0)
             t.add_row(
                 d.name,
-                f"{d.east_m * k:.0f} {unit}, {d.north_m * k:.0f} {unit}",
+                f"{length_text(d.east_m, unit, 0)}, {length_text(d.north_m, unit, 0)}",
                 "-" if d.bearing_rad is None else f"{np.degrees(d.bearing_rad):.0f} deg",
                 length,
                 tgt,

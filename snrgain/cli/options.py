@@ -63,6 +63,23 @@ nside_option = click.option(
     help="HEALPix resolution of the sky (overrides the scenario; default 32, about 1.8 deg).",
 )
 
+reference_option = click.option(
+    "--reference",
+    "reference",
+    default=None,
+    metavar="NAME",
+    help="Rank against this antenna of the scenario instead of its [reference] (the file's reference then stands "
+    "among the candidates); local levels stay read on the antenna the file says (read_on, default the file's "
+    "reference), so the noise does not change.",
+)
+
+
+def load_scenario(scenario, *, nside=None, p372_dir=None, reference=None):
+    """The scenario a command runs: loaded with the command line's --nside, --p372-dir and --reference."""
+    from snrgain.scenario import load
+
+    return load(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, reference=reference)
+
 
 def plot_option(what: str):
     """--plot FILE: save ``what`` as a figure (PNG or SVG, by the suffix)."""

@@ -11,6 +11,7 @@ from snrgain.cli.options import (
     nside_option,
     overwrite_option,
     p372_dir_option,
+    reference_option,
     scenario_argument,
     write_output,
 )
@@ -43,8 +44,9 @@ from snrgain.cli.options import (
 @allow_long_option
 @nside_option
 @p372_dir_option
+@reference_option
 @handle_errors
-def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir):
+def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, reference):
     """Which antenna to build for each target of SCENARIO, and how much better than its reference.
 
     SNR gain is (S/N of the candidate) / (S/N of the reference) toward a
@@ -55,13 +57,14 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir):
     the chance of beating the reference by 3 dB.  The station plan then names
     the set of antennas to build and which serves which target at which hours.
     """
-    from snrgain.cli.options import progress
+    from snrgain.cli.options import load_scenario, progress
     from snrgain.model.pipeline import evaluate
     from snrgain.outputs import output as out
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"rank: evaluating {scenario}"):
-        results = evaluate(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, allow_long=allow_long)
+        sc = load_scenario(scenario, nside=nside, p372_dir=p372_dir, reference=reference)
+        results = evaluate(sc, allow_long=allow_long)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     if fmt == "json":

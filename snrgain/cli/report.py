@@ -14,6 +14,7 @@ from snrgain.cli.options import (
     overwrite_option,
     p372_dir_option,
     progress,
+    reference_option,
     scenario_argument,
     write_output,
 )
@@ -32,8 +33,9 @@ from snrgain.cli.options import (
 @allow_long_option
 @nside_option
 @p372_dir_option
+@reference_option
 @handle_errors
-def report(scenario, output, overwrite, allow_long, nside, p372_dir):
+def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference):
     """Write one self-contained HTML report for SCENARIO: summary, ranking, figures, models, safety.
 
     The file has no scripts and loads nothing from the network; it prints cleanly.
@@ -42,7 +44,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir):
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"report: evaluating {scenario}"):
-        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long)
+        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     with progress(None, "report: drawing the figures"):
@@ -50,14 +52,21 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir):
     write_output(output, html, overwrite=overwrite)
 
 
-def _evaluate(scenario, *, nside, p372_dir, allow_long):
+def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None):
     """The scenario's results and its site plan (:func:`snrgain.outputs.siteplan.plan_of`, from the one load)."""
     from snrgain.model.pipeline import evaluate
     from snrgain.outputs.siteplan import plan_of
     from snrgain.scenario import load, read_source
 
     data, label, base_dir = read_source(scenario)
-    sc = load(data, nside=int(nside) if nside else None, p372_dir=p372_dir, base_dir=base_dir, label=label)
+    sc = load(
+        data,
+        nside=int(nside) if nside else None,
+        p372_dir=p372_dir,
+        base_dir=base_dir,
+        label=label,
+        reference=reference,
+    )
     return evaluate(sc, allow_long=allow_long), plan_of(sc, data=data)
 
 
@@ -81,8 +90,9 @@ def _evaluate(scenario, *, nside, p372_dir, allow_long):
 @allow_long_option
 @nside_option
 @p372_dir_option
+@reference_option
 @handle_errors
-def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir):
+def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir, reference):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
     from snrgain.outputs import plots
 
@@ -91,7 +101,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         raise FileNotFoundError(f"folder {d} does not exist")
     names = list(only) or list(plots.FIGURES)
     with progress(None, f"figures: evaluating {scenario}"):
-        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long)
+        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference)
     if "plan" in names and not plots.has_site_plan(results, plan=plan):
         if only:
             raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")

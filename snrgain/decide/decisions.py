@@ -63,8 +63,10 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
             if far > 0.7 * z0:
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
     from snrgain.decide.lot import site_notices
+    from snrgain.decide.reading import reading_notices
 
     out.extend(site_notices(sc))
+    out.extend(reading_notices(sc))
     lowest = p372.MAN_MADE_RANGE_HZ[0]
     if sc.freq_hz < lowest and sc.noise.man_made is not None:
         out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))
@@ -94,6 +96,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
             "ground": "perfect" if ground is None else ground.name,
             "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
             "ground_permittivity": None if ground is None else ground.permittivity,
+            "length_unit": sc.site.length_unit,
         },
         freq_hz=sc.freq_hz,
         bandwidth_hz=sc.bandwidth_hz,

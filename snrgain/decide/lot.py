@@ -15,7 +15,12 @@ field), two wires crossing, a receiving antenna within ``tx_clearance`` of
 the transmitting vertical (the reference, when it is a vertical, at its
 position or else at the plan's origin when the site has a lot), and a
 placed noise source inside a keep-out area (a house is where sources often
-are: it is said, not refused).  A lot or keep-out outline that crosses
+are: it is said, not refused), and plan points that look like a latitude and
+longitude written as metres (``[51.4012, -0.1203]`` at a site at 51.40 N,
+0.12 W: a corner of an outline, or an antenna's position, within
+:data:`LATLON_LIKE_DEG` of the site's latitude and longitude, either way round,
+with decimals, or every corner of an outline so: a real plan's corners do not
+all fit in a metre).  A lot or keep-out outline that crosses
 itself is an input error.
 
 Cautions of the trade: keep wires well clear of power lines (never run a
@@ -38,6 +43,55 @@ OFF_LOT_TOLERANCE_M = 0.1
 DEFAULT_TX_CLEARANCE_WAVELENGTHS = 0.5
 """Default distance to keep receiving antennas from a resonant transmitting vertical: half a wavelength (common
 practice; closer, detune the vertical while receiving)."""
+
+
+LATLON_LIKE_DEG = 0.5
+"""A plan point [m] within this of the site's (latitude, longitude) [deg], either way round, looks like one."""
+
+
+def _latlon_like(points, site) -> tuple[float, float] | None:
+    """The first point (east, north) [m] that looks like the site's (latitude, longitude), or (longitude, latitude),
+    written as metres: within :data:`LATLON_LIKE_DEG` of it, and either every point of the outline does, or that
+    point is not whole numbers (GPS numbers carry decimals; a plan corner at [51, 0] may be meant); None if none."""
+    pts = np.asarray(points, dtype=float).reshape(-1, 2)
+    lat, lon = float(site.latitude_deg), float(site.longitude_deg)
+    for order in ((lat, lon), (lon, lat)):
+        near = np.all(np.abs(pts - np.array(order)) <= LATLON_LIKE_DEG, axis=1)
+        whole = np.all(pts == np.round(pts), axis=1)
+        if near.all():
+            return tuple(float(x) for x in pts[0])
+        odd = near & ~whole
+        if odd.any():
+            return tuple(float(x) for x in pts[np.flatnonzero(odd)[0]])
+    return None
+
+
+def latlon_like_notices(sc) -> list[Notice]:
+    """Plan points (the lot, keep-outs, antennas' positions and elements) that look like a latitude and longitude
+    written as metres (code ``looks-like-latlon``: where, point, site_deg)."""
+    site = sc.site
+    if not hasattr(site, "latitude_deg"):
+        return []
+    outlines = [("the lot", site.lot_m)] if site.lot_m is not None else []
+    outlines += [(f"keep-out area {name!r}", pts) for name, pts in getattr(site, "keep_out", ())]
+    for ant in sc.antennas:
+        pos = ant.params.position
+        if pos is not None:
+            outlines.append((f"{ant.name}'s position", [pos]))
+        elif getattr(ant, "positions", None) is not None and len(ant.positions) > 1:
+            outlines.append((f"{ant.name}'s elements", ant.positions))
+    out = []
+    for where, pts in outlines:
+        first = _latlon_like(pts, site)
+        if first is not None:
+            out.append(
+                Notice(
+                    "looks-like-latlon",
+                    None,
+                    {"where": where, "point": first, "site_deg": (site.latitude_deg, site.longitude_deg)},
+                )
+            )
+    return out
 
 
 def polygon(points, what: str):
@@ -122,6 +176,7 @@ def site_notices(sc) -> list[Notice]:
             for name, area in keep:
                 if area.covers(Point(*src.position_m)):
                     out.append(Notice("source-in-keep-out", None, {"source": src.name, "area": name}))
+    out.extend(latlon_like_notices(sc))
     return out
 
 

@@ -111,26 +111,44 @@ def _reference_gain(sc: Scenario, reference=None):
     return lambda az, el: ref.gain_linear(sc.freq_hz, az, el)
 
 
-def _chain_gain_db(sc: Scenario) -> float:
-    return float(10 * np.log10(sc.chains[0].gain))
+def _chain_gain_db(sc: Scenario, k: int = 0) -> float:
+    return float(10 * np.log10(sc.chains[k].gain))
+
+
+def _reader(sc: Scenario, src, antennas=None) -> int:
+    """The index of the antenna a source's level was read on (``read_on``, by name; None: the reference)."""
+    names = [a.name for a in (sc.antennas if antennas is None else antennas)]
+    return names.index(src.read_on) if src.read_on in names else 0
 
 
 def resolve_sources(sc: Scenario) -> Scenario:
-    """The scenario with each local level read on the reference turned into the source's strength (its Fa):
-    the one place where a reading on the reference is converted (:func:`snrgain.sky.noise.resolve_local_levels`)."""
+    """The scenario with each local level turned into the source's strength (its Fa), as the antenna it was read
+    on (``read_on``: the reference by default) receives it through its chain: the one place where a reading is
+    converted (:func:`snrgain.sky.noise.level_to_fa_db`)."""
     if not any(s.level_dbm is not None and s.fa_db is None for s in sc.noise.local):
         return sc
-    noise = noisemod.resolve_local_levels(sc.noise, sc.place, _reference_gain(sc), _chain_gain_db(sc))
-    return replace(sc, noise=noise)
+    local = []
+    for s in sc.noise.local:
+        if s.level_dbm is not None and s.fa_db is None:
+            k = _reader(sc, s)
+            s = replace(
+                s,
+                fa_db=noisemod.level_to_fa_db(s, sc.place, _reference_gain(sc, sc.antennas[k]), _chain_gain_db(sc, k)),
+            )
+        local.append(s)
+    return replace(sc, noise=replace(sc.noise, local=tuple(local)))
 
 
-def strength_offsets_db(sc: Scenario, reference) -> dict[str, float]:
-    """For a reference antenna changed by a variant (another ground): how many dB each source read on the
-    reference must move so that this reference still receives what was read (name -> dB)."""
+def strength_offsets_db(sc: Scenario, antennas) -> dict[str, float]:
+    """For antennas changed by a variant (another ground; ``antennas`` in the scenario's order, or the reference
+    alone): how many dB each source's strength must move so that the antenna its level was read on still receives
+    what was read (name -> dB)."""
+    antennas = list(antennas) if isinstance(antennas, (list, tuple)) else [antennas]
     out = {}
     for s in sc.noise.local:
         if s.level_dbm is not None and s.fa_db is not None:
-            fa = noisemod.level_to_fa_db(s, sc.place, _reference_gain(sc, reference), _chain_gain_db(sc))
+            k = _reader(sc, s, antennas) if len(antennas) > 1 else 0
+            fa = noisemod.level_to_fa_db(s, sc.place, _reference_gain(sc, antennas[k]), _chain_gain_db(sc, k))
             out[s.name] = fa - s.fa_db
     return out
 

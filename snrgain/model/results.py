@@ -152,7 +152,7 @@ class Results:
         """The notices as sentences."""
         from snrgain.outputs.messages import notice_text
 
-        return [notice_text(n) for n in self.notices]
+        return [notice_text(n, unit=self.site.get("length_unit", "m")) for n in self.notices]
 
     def antenna(self, name: str) -> AntennaResult:
         """The antenna (reference or candidate) of that name."""

@@ -126,7 +126,7 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
             out.append((nominal, weight))
             continue
         moved = on_ground(sc, nominal.antennas, ground)
-        strength = strength_offsets_db(sc, moved[0])
+        strength = strength_offsets_db(sc, moved)
         out.append((products(sc, moved, grid, skies, ground=ground, strength_db=strength, known=nominal), weight))
     return out
 

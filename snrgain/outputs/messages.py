@@ -10,6 +10,7 @@ import numpy as np
 
 from snrgain.model.notices import Notice
 from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
+from snrgain.units import length_text, per_m
 
 
 def _assumed(keys) -> str:
@@ -18,8 +19,9 @@ def _assumed(keys) -> str:
     return f" (its {', '.join(keys)} assumed: give them in [chain.preamp] or [receiver] from the datasheet)"
 
 
-def notice_text(n: Notice) -> str:
-    """One notice as a sentence (prefixed by the antenna's name where it concerns one)."""
+def notice_text(n: Notice, unit: str = "m") -> str:
+    """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
+    scenario's: "m" or "ft")."""
     v = n.values
     if n.code == "receiver-limited":
         return (
@@ -46,7 +48,8 @@ def notice_text(n: Notice) -> str:
             "(longer or more rods, or a few short radials) until the resistor carries most of |Z0|"
         )
     if n.code == "off-lot":
-        far = "under 1 m" if v["outside_m"] < 1 else f"up to {v['outside_m']:.0f} m"
+        k = per_m(unit)
+        far = f"under 1 {unit}" if v["outside_m"] * k < 1 else f"up to {length_text(v['outside_m'], unit, 0)}"
         return f"{n.antenna}: runs off the lot, {far} beyond its edge"
     if n.code == "in-keep-out":
         return f"{n.antenna}: enters the keep-out area {v['area']!r}"
@@ -54,9 +57,10 @@ def notice_text(n: Notice) -> str:
         return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
     if n.code == "near-tx-vertical":
         return (
-            f"{n.antenna}: comes within {v['distance_m']:.0f} m of the transmitting vertical (keep "
-            f"{v['clearance_m']:.0f} m): a resonant vertical nearby re-radiates what it receives and distorts the "
-            "pattern; detuning it while receiving (opening its feed, or a detuning network) is the usual cure"
+            f"{n.antenna}: comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
+            f"{length_text(v['clearance_m'], unit, 0)}): a resonant vertical nearby re-radiates what it receives and "
+            "distorts the pattern; detuning it while receiving (opening its feed, or a detuning network) is the usual "
+            "cure"
         )
     if n.code == "strong-signal-overload":
         return (
@@ -77,6 +81,23 @@ def notice_text(n: Notice) -> str:
         )
     if n.code == "source-in-keep-out":
         return f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r}"
+    if n.code == "level-on-directional":
+        return (
+            f"{n.antenna}: the level of noise source {v['source']!r} was read on it, a directional antenna (its gain "
+            f"varies by {v['ripple_db']:.0f} dB around the compass; {v['gain_toward_dbi']:.1f} dBi toward the "
+            "source): an S-meter level on a directional antenna depends on its pattern toward the source, so the "
+            "source's strength is only as good as that pattern and the source's bearing and elevation; a reading on "
+            "a vertical does not depend on the bearing (name it with read_on), or give fa"
+        )
+    if n.code == "looks-like-latlon":
+        e, north = v["point"]
+        lat, lon = v["site_deg"]
+        return (
+            f"{v['where']}: [{e:g}, {north:g}] looks like a latitude and longitude (the site is at {lat:g}, {lon:g}), "
+            "but plan points are metres east and north of the plan's origin (or lengths with their unit); give "
+            "places by latitude and longitude as { latlon = [[lat, lon], ...] } (a position: { latlon = [lat, lon] }) "
+            "or as distances from the origin"
+        )
     if n.code == "man-made-extrapolated":
         return (
             f"P.372 gives man-made noise from {v['lowest_hz'] / 1e6:g} MHz; at {v['freq_hz'] / 1e6:g} MHz its line "

@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
-from snrgain.units import FT_PER_M, s_units
+from snrgain.units import length_both_text, length_text, lengths_text, s_units
 
 
 def to_json(results: Results) -> str:
@@ -254,26 +254,35 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
     """(candidate, what to build) in words, one per candidate, from what each build sheet contains."""
     from snrgain.antennas import FAMILIES
 
+    unit = r.site.get("length_unit", "m")  # lengths in the scenario's unit (snrgain.units.length_unit_of)
     out = []
     for a in r.candidates:
         b = a.build
         bits = []
         loop = "loop_height_m" in b  # a loop is given by its shape, width and height, not a length
         if "length_m" in b and not loop:
-            bits.append(f"{b['length_m']:.1f} m ({b['length_ft']:.0f} ft)")
+            bits.append(length_both_text(b["length_m"], unit, 1, 0))
         if "depth_m" in b:  # a wire on the ground, laid on it or buried
             bits.append(
                 "insulated wire laid on the ground"
                 if not b.get("depth_m")
                 else f"insulated wire buried {100 * b['depth_m']:.0f} cm deep"
+                if unit == "m"
+                else f"insulated wire buried {b['depth_m'] / 0.0254:.0f} in deep"
             )
         elif "height_m" in b:
-            bits.append(f"height {b['height_m']:.2f} m ({b['height_m'] * FT_PER_M:.1f} ft)")
+            bits.append(
+                f"height {length_both_text(b['height_m'], unit, 2 if unit == 'm' else 1, 1 if unit == 'm' else 2)}"
+            )
         if "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
         if loop:
             w, h = b["width_m"], b["loop_height_m"]
-            bits.append(f"{b['shape']} {w:.2f} x {h:.2f} m ({w * FT_PER_M:.1f} x {h * FT_PER_M:.1f} ft)")
+            other = "m" if unit == "ft" else "ft"
+            bits.append(
+                f"{b['shape']} {lengths_text([w, h], unit, 2 if unit == 'm' else 1)} "
+                f"({lengths_text([w, h], other, 1 if unit == 'm' else 2)})"
+            )
         if "termination_ohm" in b:
             far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
             bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")
@@ -288,7 +297,10 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 f"{b['practical_mismatch_loss_db']:.2f} dB)"
             )
         if "delays_ns" in b:
-            lines = ", ".join(f"{d:.0f} ns = {m:.2f} m" for d, m in zip(b["delays_ns"], b["phasing_lengths_m"]))
+            lines = ", ".join(
+                f"{d:.0f} ns = {length_text(m, unit, 2 if unit == 'm' else 1)}"
+                for d, m in zip(b["delays_ns"], b["phasing_lengths_m"])
+            )
             bits.append(f"phasing delays {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})")
             amps = b.get("amplitudes") or []
             if amps and max(amps) - min(amps) > 1e-3:

@@ -7,43 +7,21 @@ every antenna as built (a wire from its feed point, an array's elements, a combi
 and joined to each), the lengths of wire off the lot and the points where wires cross.  ``snrgain layout`` passes the
 placed designs, which replace those candidates' positions.
 
-The unit is the scenario's: feet when every length written with a unit in [site] and the antennas' places is in
-feet, else metres (the plan says which).
+The unit is the scenario's (:func:`snrgain.units.length_unit_of`: ``[site] units``, else the unit its lengths mostly
+use), feet or metres (the plan says which).
 """
 
 from __future__ import annotations
 
-import re
-
 import numpy as np
 
 from snrgain.decide.lot import OFF_LOT_TOLERANCE_M, footprint, polygon, tx_clearance_m
-from snrgain.units import FT_PER_M
-
-_FEET = re.compile(r"(?:ft|feet|foot|')\s*$", re.IGNORECASE)
-_METRES = re.compile(r"(?:m|metres?|meters?)\s*$", re.IGNORECASE)
-_PLACE_KEYS = ("position", "positions", "length", "tx_clearance", "lot", "keep_out", "outline")
-
-
-def _strings(x, keys=_PLACE_KEYS, inside=False):
-    """The quantity strings written under the place and length keys of a scenario's raw tables."""
-    if isinstance(x, dict):
-        for k, v in x.items():
-            yield from _strings(v, keys, inside or k in keys)
-    elif isinstance(x, (list, tuple)):
-        for v in x:
-            yield from _strings(v, keys, inside)
-    elif inside and isinstance(x, str):
-        yield x
+from snrgain.units import FT_PER_M, length_unit_of
 
 
 def plan_unit(data: dict | None) -> str:
-    """ "ft" when every length the scenario writes with a unit for its plan (lot, keep-outs, clearance, positions,
-    wire lengths) is in feet, else "m"."""
-    if not data:
-        return "m"
-    written = [s for s in _strings(data) if _FEET.search(s) or _METRES.search(s)]
-    return "ft" if written and all(_FEET.search(s) for s in written) else "m"
+    """The unit the scenario's raw tables ``data`` are written in (:func:`snrgain.units.length_unit_of`)."""
+    return length_unit_of(data)
 
 
 def _part(kind: str, coords) -> dict:
@@ -115,7 +93,7 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
             for g in getattr(hit, "geoms", [hit]):
                 if isinstance(g, Point):
                     crossings.append({"antennas": [na, nb], "at": (float(g.x), float(g.y))})
-    unit = plan_unit(data)
+    unit = plan_unit(data) if data is not None else getattr(site, "length_unit", "m")
     return {
         "site": site.name,
         "unit": unit,

@@ -17,6 +17,7 @@ from snrgain.errors import ScenarioError
 from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
 from snrgain.physics import targets as targetmod
+from snrgain.units import length_unit_of
 
 from .antennas import Built, build_antennas
 from .band import Band
@@ -26,7 +27,7 @@ from .local import local_levels_readable, local_sources_clear
 from .model import Scenario, ScenarioModel, model_problems
 from .noise import find_p372_dir, noise_settings
 from .receiver import chain_from_section, resolve_receiver
-from .site import Site
+from .site import Site, plan_from_latlon
 from .strong import resolve_stations, stage_limits
 from .targets import resolve_targets
 from .times import resolve_times
@@ -39,28 +40,98 @@ def load(
     p372_dir: str | Path | None = None,
     base_dir: Path | None = None,
     label: str | None = None,
+    reference: str | None = None,
 ) -> Scenario:
     """Load and validate a scenario from a path, TOML text or a dict.
 
     ``p372_dir`` is the folder of the ITU-R P.372 coefficient files given on
     the command line; the scenario key ``noise.atmospheric.data_dir`` and the
     environment variable SNRGAIN_P372_DIR take precedence over it, in that
-    order.  A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  Raises
-    :class:`ScenarioError` listing every problem.
+    order.  A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
+    name of an antenna of the scenario to rank against instead of the file's reference (the file's reference then
+    stands among the candidates where that antenna stood; levels of local sources stay read where the file says,
+    :func:`choose_reference`).  Raises :class:`ScenarioError` listing every problem.
     """
     if isinstance(source, dict):
         data, label = source, label or "<dict>"
     else:
         data, label, base_dir = read_source(source)
-    model, problems = validate(data)
+    length_unit = length_unit_of(data)
+    data, problems = plan_from_latlon(data)
+    model, more = validate(data)
+    problems += more
     built = build_antennas(data, model.band.frequency if model else None, base_dir)
     problems += built.problems
+    file_reference = built.antennas[0] if built.antennas and built.wheres[0] == "reference" else None
+    if reference is not None and not problems:
+        problems += choose_reference(built, reference)
     resolved = resolve_sections(model, base_dir, p372_dir, problems)
     if model is not None and built.antennas and not problems:
-        problems += check_local_sources(model, built)
+        problems += reading_problems(model, built, file_reference)
+    if model is not None and built.antennas and not problems:
+        problems += check_local_sources(model, built, file_reference)
     if problems:
         raise ScenarioError(label, problems)
-    return assemble(label, model, built, resolved, nside)
+    return assemble(label, model, built, resolved, nside, file_reference, length_unit)
+
+
+def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
+    """Make the antenna named ``name`` the reference (in place): it leaves the candidates, and the file's reference
+    takes its place among them, as if the two tables had been swapped in the file.  ``"reference"`` or the file's
+    reference's name keeps the file as it is.  Problems as (path, message)."""
+    names = [a.name for a in built.antennas]
+    if name == "reference" or name == names[0]:
+        return []
+    if name not in names:
+        return [("--reference", f"no antenna named {name!r}; the scenario has {', '.join(repr(n) for n in names)}")]
+    k = names.index(name)
+    ant = built.antennas[k]
+    if getattr(ant.params, "steering", None) == "auto" and getattr(ant.params, "auto_for", None) == "snr":
+        return [
+            (
+                "--reference",
+                f"{name!r} is steered for SNR (auto_for = 'snr'), which needs a reference to compare with; "
+                "a reference cannot be steered for SNR",
+            )
+        ]
+    for lst in (built.antennas, built.wheres, built.chains):
+        lst[0], lst[k] = lst[k], lst[0]
+    built.placeable.pop(name, None)  # the reference stands where it is
+    return []
+
+
+def reading_antenna(src, file_reference) -> str | None:
+    """The name of the antenna a source's level was read on: its ``read_on`` ("reference": the file's), by default
+    the file's reference; None for a source given as fa."""
+    if src.level is None:
+        return None
+    if src.read_on is None or src.read_on == "reference":
+        return file_reference.name
+    return src.read_on
+
+
+def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list[tuple[str, str]]:
+    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on the reference in force
+    (its pickup is carried to the other antennas from there)."""
+    names = [a.name for a in built.antennas]
+    out = []
+    for i, src in enumerate(model.noise.local):
+        on = reading_antenna(src, file_reference)
+        where = f'noise.local {i + 1} ("{src.name}").read_on'
+        if on is None:
+            continue
+        if on not in names:
+            out.append((where, f"no antenna named {on!r}; the scenario has {', '.join(repr(n) for n in names)}"))
+        elif src.placed and on != names[0]:
+            out.append(
+                (
+                    where,
+                    f"a placed source's level is read on the reference in force ({names[0]!r}), not on {on!r}; "
+                    "rank against the antenna it was read on, or give the source's fa with measured_at (where it "
+                    "was read)",
+                )
+            )
+    return out
 
 
 def validate(data) -> tuple[ScenarioModel | None, list[tuple[str, str]]]:
@@ -86,13 +157,38 @@ class Resolved:
     """[[strong_signal]] as snrgain.physics.strong.Station."""
 
 
-def check_local_sources(model: ScenarioModel, built: Built) -> list[tuple[str, str]]:
-    """Placed local sources stand clear of every antenna; then (if they do) levels read on the reference can be read
-    there."""
+def check_local_sources(model: ScenarioModel, built: Built, file_reference=None) -> list[tuple[str, str]]:
+    """Placed local sources stand clear of every antenna; then (if they do) levels read on the reference (or the
+    antenna ``read_on`` names; by default the file's reference) can be read there."""
     problems = local_sources_clear(model.noise.local, built.antennas, built.wheres, model.site)
     if not problems:
-        problems = local_levels_readable(model.noise.local, built.antennas[0], model.band.frequency, model.site)
+        problems = local_levels_readable(
+            model.noise.local,
+            built.antennas[0],
+            model.band.frequency,
+            model.site,
+            readers={a.name: a for a in built.antennas}
+            | {None: file_reference or built.antennas[0]}
+            | {"reference": file_reference or built.antennas[0]},
+        )
     return problems
+
+
+def readings_kept(noise, model: ScenarioModel, reference, file_reference):
+    """The noise settings with each level's reading antenna named, and, when another antenna than the file's
+    reference is the reference, a placed source's Fa kept where the file's reference stands (its default
+    ``measured_at``)."""
+    from dataclasses import replace
+
+    local = []
+    for raw, src in zip(model.noise.local, noise.local):
+        src = replace(src, read_on=reading_antenna(raw, file_reference))
+        if reference is not file_reference and src.position_m is not None and src.fa_db is not None:
+            if src.measured_at_m is None:
+                at = file_reference.params.position or (0.0, 0.0)
+                src = replace(src, measured_at_m=(float(at[0]), float(at[1])))
+        local.append(src)
+    return replace(noise, local=tuple(local))
 
 
 def resolve_sections(model: ScenarioModel | None, base_dir: Path | None, option, problems: list) -> Resolved:
@@ -123,9 +219,18 @@ def resolve_sections(model: ScenarioModel | None, base_dir: Path | None, option,
     return out
 
 
-def assemble(label: str, model: ScenarioModel, built: Built, resolved: Resolved, nside: int | None) -> Scenario:
+def assemble(
+    label: str,
+    model: ScenarioModel,
+    built: Built,
+    resolved: Resolved,
+    nside: int | None,
+    file_reference=None,
+    length_unit: str | None = None,
+) -> Scenario:
     """The Scenario of a problem-free model and its antennas: each antenna's chain (its own or the scenario's),
-    the times on the targets' union grid, the noise seen from the reference, the weights adding to 1."""
+    the times on the targets' union grid, the noise seen from the reference, the weights adding to 1; each level
+    names the antenna it was read on, and a placed source's Fa stays where the file's reference stands."""
     receiver, chain = resolved.receiver, resolved.chain
     weights = np.array([t.weight for t in model.target])
     own = [
@@ -136,13 +241,16 @@ def assemble(label: str, model: ScenarioModel, built: Built, resolved: Resolved,
     ]
     union, target_times = resolve_times(model.time, model.target)
     reference_m = built.antennas[0].params.position or (0.0, 0.0)
+    noise = noise_settings(model.noise, resolved.data_dir, model.site, reference_m)
+    if file_reference is not None:
+        noise = readings_kept(noise, model, built.antennas[0], file_reference)
     return Scenario(
         source=label,
-        site=Site.of(model.site),
+        site=Site.of(model.site, length_unit),
         band=Band.of(model.band),
         times=union,
         target_times=target_times,
-        noise=noise_settings(model.noise, resolved.data_dir, model.site, reference_m),
+        noise=noise,
         targets=tuple(resolved.targets),
         target_weights=weights / weights.sum(),
         reference=built.antennas[0],

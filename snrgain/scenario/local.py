@@ -19,10 +19,11 @@ MIN_READING_GAIN = 1e-6
 
 
 def local_levels_readable(
-    local: list[LocalSource], reference: Antenna, freq_hz: float, site: SiteSection
+    local: list[LocalSource], reference: Antenna, freq_hz: float, site: SiteSection, readers: dict | None = None
 ) -> list[tuple[str, str]]:
     """A local source's level read on the reference antenna needs that antenna to receive from the source's
-    directions (the check the sky builder would fail on later); a placed source must stand clear of it."""
+    directions (the check the sky builder would fail on later); a placed source must stand clear of it.
+    ``readers``: ``read_on`` (None: not given) -> the antenna a level was read on."""
     from noisemodels.sky import compact_source_directions
 
     out = []
@@ -32,6 +33,7 @@ def local_levels_readable(
         src = resolve_local_source(raw, site, ref_m)
         if raw.level is None:
             continue
+        on = (readers or {}).get(raw.read_on, reference)  # read_on: checked by name in snrgain.scenario.loading
         if src.position_m is not None:
             from snrgain.model import placed
 
@@ -46,11 +48,12 @@ def local_levels_readable(
                 )
             continue
         d = compact_source_directions(src.bearing_rad, src.elevation_rad, src.spread_rad)
-        if not np.any(reference.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):
+        if not np.any(on.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):
             out.append(
                 (
                     f"{where}.level",
-                    f"the reference antenna receives nothing from bearing {np.degrees(src.bearing_rad):g} deg, "
+                    f"{'the reference antenna' if on is reference else repr(on.name)} receives nothing from bearing "
+                    f"{np.degrees(src.bearing_rad):g} deg, "
                     f"elevation {np.degrees(src.elevation_rad):g} deg, so a level read on it cannot be placed; "
                     "give the level as fa instead",
                 )

@@ -132,6 +132,9 @@ class LocalSource(StrictModel):
     elevation: Elevation = _SRC.elevation_rad
     spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
+    read_on: str | None = None
+    """The antenna ``level`` was read on, by name ("reference": the file's reference); default the file's
+    reference, so that ranking against another reference (``rank --reference``) leaves the noise as it is."""
     fa: decibels(*FA_RANGE_DB) | None = None
     uncertainty: decibels(0.0, 30.0) = 0.0
     """How uncertain the level is: the 10-90 % half-width, like a P.372 decile deviation [dB]."""
@@ -151,6 +154,8 @@ class LocalSource(StrictModel):
                 "give exactly one of bearing (a direction from the station), position = [east, north] on the "
                 "site plan, or latitude and longitude"
             )
+        if self.read_on is not None and self.level is None:
+            raise ValueError("read_on names the antenna a level was read on; it goes with level, not with fa")
         if self.measured_at is not None and (self.fa is None or self.bearing is not None):
             raise ValueError("measured_at goes with fa on a placed source (a level is read on the reference antenna)")
         return self
@@ -176,7 +181,7 @@ def resolve_local_source(src: LocalSource, site: SiteSection, reference_m) -> no
     """A resolved local source: a placed one gets its plan position and its bearing from the reference."""
     if not src.placed:
         return noisemod.LocalSource(
-            src.name, src.bearing, src.elevation, src.spread, src.fa, src.level, src.uncertainty
+            src.name, src.bearing, src.elevation, src.spread, src.fa, src.level, src.uncertainty, read_on=src.read_on
         )
     if src.position is not None:
         pos = (float(src.position[0]), float(src.position[1]))
@@ -196,6 +201,7 @@ def resolve_local_source(src: LocalSource, site: SiteSection, reference_m) -> no
         height_m=src.height,
         polarisation=src.polarisation,
         measured_at_m=None if src.measured_at is None else tuple(float(x) for x in src.measured_at),
+        read_on=src.read_on,
     )
 
 

@@ -103,6 +103,8 @@ class LocalSource:
     """What a placed source radiates: "vertical", "horizontal" or "both"."""
     measured_at_m: tuple[float, float] | None = None
     """Where a placed source's ``fa_db`` was measured [m east, m north]; None: at the reference antenna."""
+    read_on: str | None = None
+    """The name of the antenna ``level_dbm`` was read on; None: the reference."""
 
 
 @dataclass(frozen=True)

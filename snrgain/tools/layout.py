@@ -35,6 +35,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from snrgain.decide.lot import footprint, polygon, tx_clearance_m
+from snrgain.units import length_text, length_unit_of
 
 BEARING_STEP_RAD = float(np.radians(5.0))
 LENGTHS_PER_RANGE = 5
@@ -87,6 +88,7 @@ class Problem:
         self.sc = sc
         self.data = data
         self.base_dir = base_dir
+        unit = sc.site.length_unit
         outline = polygon(sc.site.lot_m, "site.lot")
         inner = outline.buffer(
             -EDGE_MARGIN_M
@@ -102,8 +104,8 @@ class Problem:
         for n, pl in zip(self.names, self.places):
             if pl.length is not None and pl.length[0] > self.extent_m:
                 raise ValueError(
-                    f"candidate {n!r}.place.length: the shortest length, {pl.length[0]:g} m, cannot fit a lot "
-                    f"{self.extent_m:.0f} m across at its widest"
+                    f"candidate {n!r}.place.length: the shortest length, {length_text(pl.length[0], unit)}, cannot "
+                    f"fit a lot {length_text(self.extent_m, unit, 0)} across at its widest"
                 )
         from snrgain.model import pipeline
 
@@ -207,13 +209,13 @@ class Problem:
             inter = shape.intersection(k)
             out[f"keep-out area {name!r}"] = inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
         if self.tx is not None:
-            out[f"{self.clearance:.0f} m from the transmitting vertical"] = max(
+            out[f"{length_text(self.clearance, self.sc.site.length_unit, 0)} from the transmitting vertical"] = max(
                 0.0, self.clearance - shape.distance(self.tx)
             )
         wires = list(zip(self.fixed_names, self.fixed_wires)) + [(o.name, self.footprint(o)) for o in others]
         for name, w in wires:
             if shape.length > 0 and w.length > 0:
-                out[f"{WIRE_SEPARATION_M:g} m from the wire {name!r}"] = (
+                out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}"] = (
                     10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
                 )
         return {k: float(x) for k, x in out.items() if x > 0}
@@ -312,7 +314,8 @@ class Problem:
         if not chosen:
             raise ValueError(
                 f"layout: the placeable wires cannot all be placed without crossing or coming within "
-                f"{WIRE_SEPARATION_M:g} m of one another; widen the ranges or the lot"
+                f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} of one another; widen the ranges or "
+                "the lot"
             )
         layouts = [self._layout(designs) for designs in chosen]
         layouts[0] = self.refine(layouts[0])
@@ -463,16 +466,23 @@ def as_dict(layouts: list[Layout]) -> dict:
     }
 
 
-def with_layout(text: str, layout: Layout) -> str:
+def with_layout(text: str, layout: Layout, unit: str | None = None) -> str:
     """The scenario text with each placed candidate's position, bearing and length written in (its place table
-    dropped); other lines are kept as written."""
+    dropped), in ``unit`` ("m" or "ft"; default the unit the text's lengths use, snrgain.units.length_unit_of);
+    other lines are kept as written."""
     from snrgain.tools.tomltext import rewrite_table
+    from snrgain.units import length_literal
 
+    if unit is None:
+        import tomllib
+
+        unit = length_unit_of(tomllib.loads(text))
     for d in layout.designs:
-        add = [f'position = ["{d.east_m:.1f} m", "{d.north_m:.1f} m"]   # placed by snrgain layout\n']
+        pos = f"[{length_literal(d.east_m, unit)}, {length_literal(d.north_m, unit)}]"
+        add = [f"position = {pos}   # placed by snrgain layout\n"]
         if d.bearing_rad is not None:
             add.append(f'bearing = "{np.degrees(d.bearing_rad):.1f} deg"\n')
         if d.length_m is not None:
-            add.append(f'length = "{d.length_m:.1f} m"\n')
+            add.append(f"length = {length_literal(d.length_m, unit)}\n")
         text = rewrite_table(text, "[[candidate]]", d.name, drop={"position", "bearing", "length", "place"}, add=add)
     return text

@@ -1,0 +1,133 @@
+"""Feet in, feet out: a scenario written in feet gets its lengths back in feet in the terminal, the report's build
+sheet, the notices, `check`, the layout table and the `layout --write` copy; the JSON stays in metres."""
+
+from __future__ import annotations
+
+import json
+import re
+import tomllib
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from snrgain.cli.main import cli
+from snrgain.errors import ScenarioError
+from snrgain.model.notices import Notice
+from snrgain.model.pipeline import evaluate
+from snrgain.outputs.messages import notice_text
+from snrgain.outputs.output import build_lines
+from snrgain.scenario import load
+from snrgain.tools.layout import Design, Layout, with_layout
+from snrgain.units import M_PER_FT, length_both_text, length_text, length_unit_of, lengths_text
+
+SITE = Path(__file__).parent / "data" / "sites" / "sedge-bank-plan.toml"
+
+
+def test_the_unit_a_file_uses():
+    assert length_unit_of(
+        {"site": {"lot": [["0 ft", "0 ft"], ["9 ft", "0 ft"]]}, "candidate": [{"length": "3 m"}]}
+    ) == ("ft")
+    # bare plan numbers are metres: two corners of bare numbers outvote one length in feet
+    assert length_unit_of({"site": {"lot": [[0, 0], [5, 0]]}, "candidate": [{"length": "300 ft"}]}) == "m"
+    assert length_unit_of({"site": {"units": "ft", "lot": [[0, 0], [5, 0]]}}) == "ft"
+    assert length_unit_of({"candidate": [{"length": "1 m"}, {"height": "8 ft"}]}) == "m"  # a tie is metres
+    # attenuations per 100 ft and frequencies are not lengths
+    assert length_unit_of({"candidate": [{"chain": {"loss": "0.6 dB/100ft"}, "length": "200 m"}]}) == "m"
+    assert length_unit_of(None) == "m"
+    data = tomllib.loads(SITE.read_text())
+    data["site"]["units"] = "yd"
+    with pytest.raises(ScenarioError) as err:
+        load(data)
+    assert any(p == "site.units" for p, _ in err.value.problems)
+
+
+def test_the_formatter():
+    assert length_text(8.8392, "ft", 0) == "29 ft"
+    assert lengths_text([8.8392, 4.2672], "ft", 0) == "29 x 14 ft"
+    assert length_both_text(29.0, "m", 1, 0) == "29.0 m (95 ft)"
+    assert length_both_text(500 * M_PER_FT, "ft", 1, 0) == "500.0 ft (152 m)"
+    with pytest.raises(ValueError, match="one of m, ft"):
+        length_text(1.0, "yd")
+
+
+@pytest.fixture(scope="module")
+def feet_results():
+    data = tomllib.loads(SITE.read_text())
+    data["compute"] = {"nside": 8}
+    data["uncertainty"] = {"samples": 40}
+    return data, evaluate(load(data))
+
+
+def test_feet_in_feet_out_build_sheet_and_notices(feet_results):
+    data, r = feet_results
+    assert r.site["length_unit"] == "ft"
+    lines = dict(build_lines(r))
+    # as written: 500 ft, 8 ft, a 26 x 13 ft flag, 20 ft whips; metres only in brackets
+    assert lines["Beverage west"].startswith("500.0 ft (152 m); height 8.0 ft (2.44 m)")
+    assert "rectangle 26.0 x 13.0 ft (7.92 x 3.96 m)" in lines["flag north-west"]
+    assert "height 20.0 ft (6.10 m)" in lines["sense whip"]
+    assert re.search(r"\d+ ns = \d+\.\d ft", lines["pair north-west"])
+    text = " ".join(lines.values()) + " ".join(r.warnings)
+    assert not re.search(r"\d m[ ;,)]", text.replace(" m)", ")"))  # no length shown first in metres
+    assert "runs off the lot, up to 32 ft beyond its edge" in " ".join(r.warnings)
+    assert "keep 100 ft" in " ".join(r.warnings)
+    # the JSON stays SI
+    d = r.to_dict()
+    bev = next(c for c in d["candidates"] if c["name"] == "Beverage west")
+    assert bev["parameters"]["length_m"] == pytest.approx(500 * M_PER_FT)
+    assert d["site"]["length_unit"] == "ft" and "length_ft" not in json.dumps(d["site"])
+    # the same file in metres answers in metres
+    metric = dict(data, site=dict(data["site"], units="m"))
+    rm = evaluate(load(metric))
+    assert dict(build_lines(rm))["Beverage west"].startswith("152.4 m (500 ft)")
+    assert "up to 10 m beyond its edge" in " ".join(rm.warnings)
+
+
+def test_notices_in_the_unit():
+    n = Notice("near-tx-vertical", "whip", {"distance_m": 25.908, "clearance_m": 30.48})
+    assert "within 85 ft" in notice_text(n, unit="ft") and "keep 100 ft" in notice_text(n, unit="ft")
+    assert "within 26 m" in notice_text(n) and "keep 30 m" in notice_text(n)
+
+
+def test_check_says_what_rank_would_warn_in_feet():
+    res = CliRunner().invoke(cli, ["check", str(SITE)])
+    assert res.exit_code == 0, res.output
+    assert "660 ft east-west by 500 ft north-south" in res.output
+    assert "rank would warn: wire north: runs off the lot, up to 32 ft beyond its edge" in res.output
+    assert "rank would warn: Beverage west: crosses BOG south-west" in res.output
+
+
+def test_the_layout_copy_is_written_in_feet():
+    text = SITE.read_text().replace(
+        'position = ["525 ft", "200 ft"]',
+        'position = ["525 ft", "200 ft"]\nplace = { bearing = ["270 deg", "300 deg"], length = ["400 ft", "600 ft"] }',
+    )
+    best = Layout((Design("Beverage west", 150.0, 60.0, 4.9, 160.0),), (8.0,), ("North America",))
+    out = with_layout(text, best)
+    assert re.search(r'position = \["492\.1 ft", "196\.9 ft"\]', out) and 'length = "524.9 ft"' in out
+    sc = load(tomllib.loads(out))  # and it reads back to the same place (0.05 ft rounding)
+    bev = next(a for a in sc.candidates if a.name == "Beverage west")
+    assert bev.params.position == pytest.approx((150.0, 60.0), abs=0.02)
+    assert bev.length_m == pytest.approx(160.0, abs=0.02)
+    metric = with_layout(text, best, "m")
+    assert 'position = ["150.0 m", "60.0 m"]' in metric
+
+
+def test_layout_command_prints_and_writes_feet(tmp_path):
+    text = SITE.read_text().replace(
+        'position = ["525 ft", "200 ft"]',
+        'position = ["525 ft", "200 ft"]\nplace = { bearing = ["270 deg", "300 deg"], length = ["400 ft", "600 ft"] }',
+    )
+    text += "\n[compute]\nnside = 8\n"
+    src = tmp_path / "site.toml"
+    src.write_text(text)
+    copy = tmp_path / "placed.toml"
+    res = CliRunner().invoke(cli, ["layout", str(src), "--keep", "1", "--write", str(copy)], env={"COLUMNS": "200"})
+    assert res.exit_code == 0, res.output
+    assert re.search(r"-?\d+ ft, -?\d+ ft", res.output) and re.search(r"\d+ ft \(\d+ m\)", res.output)
+    written = copy.read_text()
+    assert re.search(r'position = \["-?\d+\.\d ft", "-?\d+\.\d ft"\]   # placed by snrgain layout', written)
+    res = CliRunner().invoke(cli, ["layout", str(src), "--keep", "1", "--format", "json"])
+    out = json.loads(res.stdout)
+    assert "position_m" in out["layouts"][0]["candidates"][0]  # JSON in metres
