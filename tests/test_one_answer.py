@@ -206,3 +206,22 @@ def test_products_from_known_products_equal_products_worked_afresh():
     # The placed supply is heard differently at the two new places (the reuse did not copy the old place's).
     row = skies.names.index("neighbour's supply")
     assert not np.isclose(fresh.temps.by_component[row, 1, 0, 0], fresh.temps.by_component[row, 2, 0, 0])
+
+
+def test_sweep_with_another_reference_equals_rank_with_it():
+    # --reference on sweep loads the scenario as rank --reference does: a no-op vary of a section (full runs) and
+    # of a candidate (the shared path) give rank's figures against the same reference to 0.01 dB.
+    path = SITES[0]
+    _needs_data(path)
+    data, label, base = read_source(path)
+    other = next(c["name"] for c in data["candidate"] if c.get("family") == "beverage")
+    r = snrgain.evaluate(load(path, reference=other))
+    rank = {(a.name, t["name"]): a.snr_gain_nominal_db[i] for a in r.candidates for i, t in enumerate(r.targets)}
+    last = data["candidate"][-1]["name"]
+    for vary in (f"site: name = {r.site['name']}", f"{last}: name = {last}"):
+        study = sw.Study(data, label, str(base), [sw.parse_vary(vary)], reference=other)
+        sw.validate(study)
+        rows = sw.run_designs(study, [(0, (study.varies[0].values[0],))])
+        assert rows and all(row["antenna"] != other for row in rows)
+        for row in rows:
+            assert row["snr_gain_db"] == pytest.approx(rank[row["antenna"], row["target"]], abs=0.01), (vary, row)

@@ -13,6 +13,7 @@ from snrgain.cli.options import (
     nside_option,
     overwrite_option,
     p372_dir_option,
+    reference_option,
     scenario_argument,
 )
 
@@ -55,8 +56,9 @@ from snrgain.cli.options import (
 @allow_long_option
 @nside_option
 @p372_dir_option
+@reference_option
 @handle_errors
-def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long, nside, p372_dir):
+def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long, nside, p372_dir, reference):
     """Run SCENARIO over every combination of the --vary values and write one row per design, varied antenna
     and target: the varied values, the SNR gain over the reference, RDF, front-to-back, gain toward the target
     and the worst-hour noise margin.
@@ -83,6 +85,7 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
         p372_dir=p372_dir,
         nside=int(nside) if nside else None,
         spread=spread,
+        reference=reference,
     )
     total = sw.design_count(parsed)
     if total > sw.MAX_DESIGNS:

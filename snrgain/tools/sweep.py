@@ -207,20 +207,28 @@ class Study:
     p372_dir: str | None = None
     nside: int | None = None
     spread: bool = False
+    reference: str | None = None
+    """Rank against this antenna of the scenario instead of its [reference] (``--reference``)."""
 
     @property
     def fast(self) -> bool:
-        """Only candidates' own keys vary (not their chains), and no spread is asked: the shared part is computed
-        once."""
+        """Only candidates' own keys vary (not their chains, not the antenna ranked against), and no spread is
+        asked: the shared part is computed once."""
         return not self.spread and all(
-            v.table not in SECTIONS and v.table != "reference" and not v.key.startswith("chain") for v in self.varies
+            v.table not in SECTIONS
+            and v.table != "reference"
+            and v.table != self.reference
+            and not v.key.startswith("chain")
+            for v in self.varies
         )
 
     def load(self, data: dict):
         from snrgain.scenario import load
 
         base = Path(self.base_dir) if self.base_dir else None
-        sc = load(data, nside=self.nside, p372_dir=self.p372_dir, base_dir=base, label=self.label)
+        sc = load(
+            data, nside=self.nside, p372_dir=self.p372_dir, base_dir=base, label=self.label, reference=self.reference
+        )
         if not self.spread:
             sc = replace(
                 sc,
