@@ -34,6 +34,8 @@ from pathlib import Path
 import numpy as np
 
 REPO = Path(__file__).resolve().parents[1]
+if str(REPO) not in sys.path:  # run from a checkout without installing: python benchmarks/bench.py
+    sys.path.insert(0, str(REPO))
 SITE = REPO / "benchmarks" / "realistic-site.toml"
 
 
@@ -552,6 +554,9 @@ def realistic_site():
         figs = Path(tmp) / "figs"
         figs.mkdir()
         t_figs = _best_subprocess([*cli, "figures", str(SITE), "--dir", str(figs), "--overwrite"], n=3, env=env)
+        serial = {**env, "SNRGAIN_WORKERS": "1"}  # the figures drawn one after the other in the command's process
+        t_report_1 = _best_subprocess([*cli, "report", str(SITE), "-o", str(html), "--overwrite"], n=3, env=serial)
+        t_figs_1 = _best_subprocess([*cli, "figures", str(SITE), "--dir", str(figs), "--overwrite"], n=3, env=serial)
     print(f"\nrealistic site ({SITE.name}), best of 5 (rank, report, figures: of 3), ratios to a bare numpy import:")
     print(f"{'':<48}{'time [ms]':>10}{'ratio':>8}{'target':>9}")
     rows = [
@@ -563,6 +568,8 @@ def realistic_site():
         ("snrgain rank, sky cache warm", t_warm, 5.0),
         ("snrgain report (sky cache warm)", t_report, None),
         ("snrgain figures (sky cache warm)", t_figs, None),
+        ("snrgain report, figures drawn in one process", t_report_1, None),
+        ("snrgain figures, drawn in one process", t_figs_1, None),
     ]
     for label, t, target in rows:
         tgt = f"<= {target:g}x" if target else ""
