@@ -453,10 +453,17 @@ def verify(
     p372_dir=None,
     predict_too: bool = True,
 ) -> VerifyResult:
-    """Read, pair, place, summarise and compare with the prediction (see the module's steps)."""
-    from snrgain.scenario import load
+    """Read, pair, place, summarise and compare with the prediction (see the module's steps).
 
-    sc = load(scenario, p372_dir=p372_dir)
+    ``scenario``: its path (or, with ``predict_too=False``, a loaded Scenario)."""
+    from snrgain.scenario import Scenario, load
+
+    if isinstance(scenario, Scenario):
+        if predict_too:
+            raise ValueError("a loaded Scenario cannot be copied for the prediction; give its path")
+        sc = scenario
+    else:
+        sc = load(scenario, p372_dir=p372_dir)
     problems = logs.Problems()
     if spots is not None:
         sp = logs.parse_spots_csv(logs.read_text(spots), "spots", problems)
