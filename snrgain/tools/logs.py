@@ -27,7 +27,10 @@ in a log raises.
 
 from __future__ import annotations
 
+import contextlib
 import csv
+import functools
+import gc
 import io
 import re
 from dataclasses import dataclass, field
@@ -125,91 +128,176 @@ def read_text(path) -> str:
     return read_limited(Path(path), limit_bytes=MAX_LOG_BYTES, what="log").decode("utf-8", errors="replace")
 
 
+@contextlib.contextmanager
+def _collector_paused():
+    """Python's cyclic garbage collector paused while a log's lines become tuples (no cycles are made; the
+    collector's passes over a growing list of 100,000 tuples would take most of the time), then restored."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
+
+
+def _slow_fields(n: int, raw: str, few: list, tx: list):
+    """One line's fields (stamp, freq, mode, snr, dt, df, message), or None (blank, comment, Tx, too few)."""
+    tok = raw.split()
+    if not tok or tok[0].startswith("#"):
+        return None
+    if _DATE_ISO.match(tok[0]) and len(tok) > 1 and _TIME.match(tok[1]):
+        stamp, rest = tok[0] + "T" + tok[1].rstrip("Z"), tok[2:]
+    elif "T" in tok[0] and _DATE_ISO.match(tok[0].split("T")[0]):
+        stamp, rest = tok[0].rstrip("Z"), tok[1:]
+    else:
+        stamp, rest = tok[0], tok[1:]
+    if len(rest) > 1 and rest[1] in ("Rx", "Tx", "RX", "TX"):
+        if rest[1].upper() == "TX":
+            tx.append(n)
+            return None
+        rest = rest[:1] + rest[2:]
+    while rest and _DECODER_MARK.match(rest[-1]):
+        rest = rest[:-1]
+    if len(rest) > 5 and rest[5] == "~":
+        rest = rest[:5] + rest[6:]
+    if len(rest) < 6:
+        few.append(n)
+        return None
+    return (stamp, rest[0], rest[1], rest[2], rest[3], rest[4], " ".join(rest[5:]))
+
+
+def _clean_message(msg: str) -> str:
+    """A message with single spaces, in capitals, without a leading ``~`` or trailing decoder marks."""
+    tok = msg.split()
+    if tok and tok[0] == "~":
+        tok = tok[1:]
+    while tok and _DECODER_MARK.match(tok[-1]):
+        tok = tok[:-1]
+    return " ".join(tok).upper()
+
+
 def parse_decode_text(text: str, label: str, problems: Problems) -> pd.DataFrame:
     """The decodes of a log in the common ALL-decodes text format, one row each (:data:`COLUMNS`); lines not read
-    are counted in ``problems`` under ``label``."""
+    are counted in ``problems`` under ``label``.
+
+    The usual line (a compact stamp, ``Rx``, one space between message words) is split once in C; any other line
+    goes through the general reading, token by token."""
     rows, nums = [], []
     few, tx = [], []
-    for n, raw in enumerate(text.splitlines(), start=1):
-        tok = raw.split()
-        if not tok or tok[0].startswith("#"):
-            continue
-        if _DATE_ISO.match(tok[0]) and len(tok) > 1 and _TIME.match(tok[1]):
-            stamp, rest = tok[0] + "T" + tok[1].rstrip("Z"), tok[2:]
-        elif "T" in tok[0] and _DATE_ISO.match(tok[0].split("T")[0]):
-            stamp, rest = tok[0].rstrip("Z"), tok[1:]
-        else:
-            stamp, rest = tok[0], tok[1:]
-        if len(rest) > 1 and rest[1] in ("Rx", "Tx", "RX", "TX"):
-            if rest[1].upper() == "TX":
-                tx.append(n)
+    with _collector_paused():
+        for n, raw in enumerate(text.splitlines(), start=1):
+            p = raw.split(None, 7)
+            if len(p) == 8 and p[2] == "Rx" and len(p[0]) == 13 and p[0][6] == "_":
+                rows.append((p[0], p[1], p[3], p[4], p[5], p[6], p[7]))
+                nums.append(n)
                 continue
-            rest = rest[:1] + rest[2:]
-        while rest and _DECODER_MARK.match(rest[-1]):
-            rest = rest[:-1]
-        if len(rest) > 5 and rest[5] == "~":
-            rest = rest[:5] + rest[6:]
-        if len(rest) < 6:
-            few.append(n)
-            continue
-        rows.append((stamp, rest[0], rest[1], rest[2], rest[3], rest[4], " ".join(rest[5:])))
-        nums.append(n)
+            f = _slow_fields(n, raw, few, tx)
+            if f is not None:
+                rows.append(f)
+                nums.append(n)
+        cols = np.array(rows, dtype=object).reshape(-1, 7)
+        del rows
     problems.add("too few fields (date time, frequency, mode, SNR, DT, audio offset, message)", label, few)
     problems.add("the station's own transmission (Tx), not a decode", label, tx)
-    raw = pd.DataFrame(rows, columns=["stamp", "freq", "mode", "snr", "dt", "df", "message"])
-    raw.insert(0, "line", np.asarray(nums, dtype=np.int64))
-    compact = raw["stamp"].str.match(_DATE_COMPACT.pattern)
-    t1 = pd.to_datetime(raw["stamp"].where(compact), format="%y%m%d_%H%M%S", errors="coerce", utc=True)
-    t2 = pd.to_datetime(raw["stamp"].where(~compact), format="%Y-%m-%dT%H:%M:%S", errors="coerce", utc=True)
-    raw["time"] = t1.fillna(t2) if len(raw) else t1
-    return _finish(raw, raw["freq"], label, problems)
+    # A log holds one stamp per slot: parse the distinct stamps only.
+    codes, stamps = pd.factorize(pd.Series(cols[:, 0], dtype=object))
+    stamps = pd.Series(np.asarray(stamps, dtype=object), dtype=object)
+    compact = stamps.str.len().eq(13).to_numpy() & (stamps.str[6] == "_").to_numpy()
+    t1 = pd.to_datetime(stamps[compact], format="%y%m%d_%H%M%S", errors="coerce")
+    t2 = pd.to_datetime(stamps[~compact], format="%Y-%m-%dT%H:%M:%S", errors="coerce")
+    when = np.empty(len(stamps), dtype="datetime64[ns]")
+    when[compact] = t1.to_numpy("datetime64[ns]")
+    when[~compact] = t2.to_numpy("datetime64[ns]")
+    time = when[codes]
+    raw = {
+        "line": np.asarray(nums, dtype=np.int64),
+        "time": time,
+        "freq": cols[:, 1],
+        "mode": cols[:, 2],
+        "snr": cols[:, 3],
+        "dt": cols[:, 4],
+        "df": cols[:, 5],
+        "message": cols[:, 6],
+    }
+    return _finish(raw, label, problems)
 
 
-def _frequency_band(freq: pd.Series) -> tuple[pd.Series, pd.Series]:
+def _numbers(col) -> np.ndarray:
+    """Floats from strings; NaN where a string is not a number."""
+    a = np.asarray(col, dtype=object)
+    try:
+        out = a.astype(np.float64)
+    except (ValueError, TypeError):
+        out = pd.to_numeric(pd.Series(a, dtype=object), errors="coerce").to_numpy(np.float64, na_value=np.nan)
+    return out
+
+
+def _frequency_band(freq) -> tuple[np.ndarray, np.ndarray]:
     """(band name, bad mask) from a column of MHz numbers or band names."""
-    f = pd.to_numeric(freq, errors="coerce")
-    named = freq.astype(str).str.strip().str.lower()
-    is_name = named.isin(list(BANDS_MHZ))
-    band = pd.Series(band_of(f.fillna(-1.0).to_numpy()), index=freq.index, dtype=object)
-    band[is_name] = named[is_name]
-    bad = ~is_name & ~((f > 0.0) & (f < 1e5))
+    freq = np.asarray(freq, dtype=object)
+    f = _numbers(freq)
+    is_name = np.isnan(f)
+    if is_name.any():
+        named = np.array([str(x).strip().lower() for x in freq[is_name]], dtype=object)
+        ok = np.isin(named, list(BANDS_MHZ))
+    band = band_of(np.where(is_name, -1.0, f))
+    bad = ~((f > 0.0) & (f < 1e5))
+    if is_name.any():
+        idx = np.flatnonzero(is_name)
+        band[idx[ok]] = named[ok]
+        bad[idx[ok]] = False
     return band, bad
 
 
-def _finish(raw: pd.DataFrame, freq: pd.Series, label: str, problems: Problems) -> pd.DataFrame:
+def per_distinct(values, fn) -> np.ndarray:
+    """``fn`` of each value, computed once per distinct value (a log repeats its messages and stamps)."""
+    values = np.asarray(values, dtype=object)
+    if not values.size:
+        return values
+    codes, uniq = pd.factorize(pd.Series(values, dtype=object))
+    out = np.empty(len(uniq), dtype=object)
+    out[:] = [fn(u) for u in np.asarray(uniq, dtype=object)]
+    return out[codes]
+
+
+def _finish(raw: dict, label: str, problems: Problems) -> pd.DataFrame:
     """Columns checked and converted together; each bad row named under its first bad field."""
-    band, bad_freq = _frequency_band(freq)
-    mode = raw["mode"].astype(str).str.upper()
-    snr = pd.to_numeric(raw["snr"], errors="coerce")
-    dt = pd.to_numeric(raw["dt"], errors="coerce")
-    df = pd.to_numeric(raw["df"], errors="coerce")
-    message = raw["message"].astype(str).str.upper().str.split().str.join(" ")
-    checks = [
-        ("date and time not a UTC date and time (YYMMDD_HHMMSS or YYYY-MM-DD HH:MM:SS)", raw["time"].isna()),
-        ("frequency not a number in MHz or a band name (e.g. 1.840 or 160m)", bad_freq),
-        (f"mode not one of {', '.join(SLOT_SECONDS)}", ~mode.isin(list(SLOT_SECONDS))),
-        ("SNR not a number of dB", snr.isna()),
-        (f"SNR outside {SNR_RANGE_DB[0]:g} to {SNR_RANGE_DB[1]:+g} dB", ~snr.between(*SNR_RANGE_DB) & snr.notna()),
-        ("time offset (DT) not a number of seconds", dt.isna() | ~dt.abs().le(60.0)),
-        ("audio offset not a number of Hz from 0 to 6000", df.isna() | ~df.between(0.0, 6000.0)),
-        ("empty message", message.str.len() == 0),
-    ]
-    bad = pd.Series(False, index=raw.index)
+    band, bad_freq = _frequency_band(raw["freq"])
+    mode = per_distinct(raw["mode"], lambda m: str(m).strip().upper())
+    snr, dt, df = _numbers(raw["snr"]), _numbers(raw["dt"]), _numbers(raw["df"])
+    message = np.asarray(raw["message"], dtype=object)
+    message = per_distinct(message, _clean_message)
+    with np.errstate(invalid="ignore"):
+        checks = [
+            ("date and time not a UTC date and time (YYMMDD_HHMMSS or YYYY-MM-DD HH:MM:SS)", np.isnat(raw["time"])),
+            ("frequency not a number in MHz or a band name (e.g. 1.840 or 160m)", bad_freq),
+            (f"mode not one of {', '.join(SLOT_SECONDS)}", ~np.isin(mode, list(SLOT_SECONDS))),
+            ("SNR not a number of dB", np.isnan(snr)),
+            (
+                f"SNR outside {SNR_RANGE_DB[0]:g} to {SNR_RANGE_DB[1]:+g} dB",
+                (snr < SNR_RANGE_DB[0]) | (snr > SNR_RANGE_DB[1]),
+            ),
+            ("time offset (DT) not a number of seconds", ~(np.abs(dt) <= 60.0)),
+            ("audio offset not a number of Hz from 0 to 6000", ~((df >= 0.0) & (df <= 6000.0))),
+            ("empty message", np.array([len(m) == 0 for m in message], dtype=bool).reshape(-1)),
+        ]
+    bad = np.zeros(len(raw["line"]), dtype=bool)
     for reason, mask in checks:
-        mask = mask.fillna(True).astype(bool) & ~bad
+        mask = np.asarray(mask, dtype=bool) & ~bad
         problems.add(reason, label, raw["line"][mask])
         bad |= mask
-    good = ~bad
+    g = ~bad
     return pd.DataFrame(
         {
-            "line": raw["line"][good].to_numpy(np.int64),
-            "time": raw["time"][good].dt.tz_localize(None).to_numpy("datetime64[ns]"),
-            "band": band[good].to_numpy(object),
-            "mode": mode[good].to_numpy(object),
-            "snr_db": snr[good].to_numpy(float),
-            "dt_s": dt[good].to_numpy(float),
-            "audio_hz": df[good].to_numpy(float),
-            "message": message[good].to_numpy(object),
+            "line": raw["line"][g],
+            "time": np.asarray(raw["time"])[g],
+            "band": pd.Series(band[g], dtype=object),
+            "mode": pd.Series(mode[g], dtype=object),
+            "snr_db": snr[g],
+            "dt_s": dt[g],
+            "audio_hz": df[g],
+            "message": pd.Series(message[g], dtype=object),
         }
     )
 
@@ -247,15 +335,22 @@ def parse_decode_csv(text: str, label: str, problems: Problems) -> pd.DataFrame:
         "message": ("message",),
     }
     raw = _csv_frame(text, label, need)
-    raw["time"] = _iso_times(raw["time_utc"])
-    freq = raw["band"] if "band" in raw else raw["frequency_mhz"]
-    raw = raw.rename(columns={"snr_db": "snr", "dt_s": "dt", "audio_hz": "df"})
-    return _finish(raw, freq, label, problems)
+    cols = {
+        "line": raw["line"].to_numpy(np.int64),
+        "time": _iso_times(raw["time_utc"]).to_numpy("datetime64[ns]"),
+        "freq": (raw["band"] if "band" in raw else raw["frequency_mhz"]).to_numpy(object),
+        "mode": raw["mode"].to_numpy(object),
+        "snr": raw["snr_db"].to_numpy(object),
+        "dt": raw["dt_s"].to_numpy(object),
+        "df": raw["audio_hz"].to_numpy(object),
+        "message": raw["message"].to_numpy(object),
+    }
+    return _finish(cols, label, problems)
 
 
 def _iso_times(col: pd.Series) -> pd.Series:
     s = col.astype(str).str.strip().str.replace(" ", "T", regex=False).str.rstrip("Z")
-    return pd.to_datetime(s, format="%Y-%m-%dT%H:%M:%S", errors="coerce", utc=True)
+    return pd.to_datetime(s, format="%Y-%m-%dT%H:%M:%S", errors="coerce")
 
 
 def looks_like_csv(text: str) -> bool:
@@ -293,6 +388,7 @@ class Sender:
     bad_locator: str | None = None
 
 
+@functools.lru_cache(maxsize=2**18)
 def sender_of(message: str) -> Sender:
     """The sending station of a standard message and the locator it gives, if any.
 
@@ -358,7 +454,19 @@ def pair_decodes(a: pd.DataFrame, b: pd.DataFrame, problems: Problems, *, max_hz
         problems.add("the same message twice in one slot (the first kept)", label, df["line"][dup])
         frames.append(df[~dup])
     a, b = frames
-    m = a.merge(b, on=KEY, how="outer", suffixes=("_a", "_b"), indicator=True)
+    # One int64 key per (band, mode, message) code and slot: a merge on one integer column.
+    both_keys = pd.concat([a[["band", "mode", "message"]], b[["band", "mode", "message"]]], ignore_index=True)
+    slot = np.concatenate([a["slot"].to_numpy(np.int64), b["slot"].to_numpy(np.int64)])
+    parts = [pd.factorize(both_keys[c].to_numpy(object))[0].astype(np.int64) for c in ("band", "mode", "message")]
+    code = (parts[2] * (parts[1].max(initial=0) + 1) + parts[1]) * (parts[0].max(initial=0) + 1) + parts[0]
+    span = int(slot.max() - slot.min()) + 1 if slot.size else 1
+    if float(code.max(initial=0) + 1) * span < 2.0**62:
+        key = code * span + (slot - slot.min(initial=0))
+    else:  # an enormous span of time: number the distinct (code, slot) pairs instead
+        key = np.unique(np.stack([code, slot]), axis=1, return_inverse=True)[1].reshape(-1)
+    a = a.assign(key=key[: len(a)])
+    b = b.assign(key=key[len(a) :]).drop(columns=["band", "mode", "message", "slot"])
+    m = a.merge(b, on="key", how="outer", suffixes=("_a", "_b"), indicator=True)
     only_a = m["_merge"] == "left_only"
     only_b = m["_merge"] == "right_only"
     both = m["_merge"] == "both"
@@ -398,7 +506,8 @@ def parse_spots_csv(text: str, label: str, problems: Problems) -> pd.DataFrame:
     raw = _csv_frame(text, label, need)
     raw["time"] = _iso_times(raw["time_utc"])
     freq = raw["band"] if "band" in raw else raw["frequency_mhz"]
-    band, bad_freq = _frequency_band(freq)
+    band, bad_freq = _frequency_band(freq.to_numpy(object))
+    band, bad_freq = pd.Series(band, index=raw.index, dtype=object), pd.Series(bad_freq, index=raw.index)
     mode = raw["mode"].astype(str).str.strip().str.upper() if "mode" in raw else pd.Series("WSPR", index=raw.index)
     snr = pd.to_numeric(raw["snr_db"], errors="coerce")
     call = raw["tx_call"].astype(str).str.strip().str.upper()
@@ -422,7 +531,7 @@ def parse_spots_csv(text: str, label: str, problems: Problems) -> pd.DataFrame:
     out = pd.DataFrame(
         {
             "line": raw["line"][g].to_numpy(np.int64),
-            "time": raw["time"][g].dt.tz_localize(None).to_numpy("datetime64[ns]"),
+            "time": raw["time"][g].to_numpy("datetime64[ns]"),
             "band": band[g].to_numpy(object),
             "mode": mode[g].to_numpy(object),
             "snr_db": snr[g].to_numpy(float),

@@ -205,21 +205,25 @@ def station_locators(frames: list[tuple[pd.DataFrame, str]], problems: logs.Prob
     for df, label in frames:
         if df.empty:
             continue
-        uniq = pd.unique(df["message"])
-        senders = {m: logs.sender_of(m) for m in uniq}
-        bad = df["message"].map({m: x.bad_locator is not None for m, x in senders.items()})
+        senders = logs.per_distinct(df["message"].to_numpy(object), logs.sender_of)
+        bad = np.array([x.bad_locator is not None for x in senders], dtype=bool)
         problems.add(
             "locator not valid (letters A-R, digits, letters A-X): the line's locator ignored", label, df["line"][bad]
         )
-        calls = df["message"].map({m: x.call for m, x in senders.items()})
-        locs = df["message"].map({m: x.locator for m, x in senders.items()})
+        calls = [x.call for x in senders]
+        locs = [x.locator for x in senders]
         found.append(pd.DataFrame({"call": calls, "locator": locs}).dropna())
     if not found:
         return {}
     allf = pd.concat(found)
     if allf.empty:
         return {}
-    best = allf.groupby(["call", "locator"]).size().reset_index(name="n").sort_values("n", ascending=False)
+    best = (
+        allf.groupby(["call", "locator"])
+        .size()
+        .reset_index(name="n")
+        .sort_values(["n", "locator"], ascending=[False, True], kind="stable")
+    )
     return dict(best.drop_duplicates("call")[["call", "locator"]].itertuples(index=False, name=None))
 
 
@@ -229,8 +233,11 @@ def place_pairs(
     """The pairs with the sender's call, place, bearing [deg] and distance [km]; the unplaceable counted."""
     from snrgain.physics.targets import geodesic
 
-    senders = {m: logs.sender_of(m) for m in pd.unique(pairs["message"])}
-    call = pairs["message"].map({m: x.call for m, x in senders.items()})
+    call = pd.Series(
+        [x.call for x in logs.per_distinct(pairs["message"].to_numpy(object), logs.sender_of)],
+        index=pairs.index,
+        dtype=object,
+    )
     no_call = call.isna()
     problems.add("unplaceable: the message names no sending station", "A", pairs["line_a"][no_call])
     known = {c: places[c] for c in places}
