@@ -294,3 +294,66 @@ def test_cli_bad_input(extra, message):
 def test_cli_examples(kind):
     out = CliRunner().invoke(cli, ["verify", "--example", kind])
     assert out.exit_code == 0 and out.output == vf.EXAMPLES[kind]
+
+
+def test_cli_spots_and_listeners(tmp_path):
+    spots = tmp_path / "spots.csv"
+    spots.write_text(vf.EXAMPLES["spots"] + "2026-12-02 00:08:00,1.8366,WSPR,-20,Q1ABC,FN42,Q8XYZ\n")
+    base = ["verify", WREN, "--a", "Beverage Europe", "--b", "TX vertical", "--spots", str(spots)]
+    out = CliRunner().invoke(cli, base)
+    assert out.exit_code == 2 and "2 listeners" in out.output and "--listener" in out.output
+    out = CliRunner().invoke(cli, [*base, "--listener", "Q9XYZ", "--format", "json"])
+    assert out.exit_code == 0, out.output
+    data = json.loads(out.stdout)
+    assert data["pairs"] == 2 and data["lines_not_used"]["another listener than Q9XYZ"]["lines"] == ["spots:8"]
+
+
+def test_mangled_logs_never_raise(tmp_path):
+    """Seeded mutations of the hand-made logs (characters dropped, doubled, replaced, lines cut): every line is
+    either used or counted, and nothing raises."""
+    rng = np.random.default_rng(42)
+    lines_a = (DATA / "a.txt").read_text().splitlines()
+    lines_b = (DATA / "b.txt").read_text().splitlines()
+    junk = list("0123456789:_-.~?<>/ ABCDEFGHIJKLMNOPQRSTUVWXYZ\t\u00e9\u2212")
+    for trial in range(25):
+        out = []
+        for lines in (lines_a, lines_b):
+            mangled = []
+            for line in lines:
+                if line and rng.random() < 0.3:
+                    chars = list(line)
+                    for _ in range(rng.integers(1, 4)):
+                        i = int(rng.integers(0, len(chars)))
+                        op = rng.integers(0, 4)
+                        if op == 0:
+                            del chars[i]
+                        elif op == 1:
+                            chars.insert(i, str(rng.choice(junk)))
+                        elif op == 2:
+                            chars[i] = str(rng.choice(junk))
+                        else:
+                            chars = chars[:i]
+                        if not chars:
+                            break
+                    line = "".join(chars)
+                mangled.append(line)
+            out.append("\n".join(mangled) + "\n")
+        (tmp_path / "a.txt").write_text(out[0])
+        (tmp_path / "b.txt").write_text(out[1])
+        r = vf.verify(
+            WREN, a_name="A", b_name="B", log_a=tmp_path / "a.txt", log_b=tmp_path / "b.txt", predict_too=False
+        )
+        assert r.problems.count() > 0, trial
+        # every line accounted for: used in a placed pair, or counted once under a reason (an invalid locator is a
+        # note on a line that is still used; an unplaceable pair is counted on its A line)
+        counted = {"A": 0, "B": 0}
+        unplaceable = 0
+        for reason, where in r.problems.by_reason.items():
+            if reason.startswith("locator not valid"):
+                continue
+            for label, _ in where:
+                counted[label] += 1
+                unplaceable += reason.startswith("unplaceable")
+        for label, text in (("A", out[0]), ("B", out[1])):
+            n = sum(1 for ln in text.splitlines() if ln.split() and not ln.split()[0].startswith("#"))
+            assert n == len(r.pairs) + counted[label] + (unplaceable if label == "B" else 0), (trial, label)

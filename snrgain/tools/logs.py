@@ -365,7 +365,12 @@ def looks_like_csv(text: str) -> bool:
 def read_decodes(path, label: str, problems: Problems) -> pd.DataFrame:
     """A decode log or CSV (told apart by its first line)."""
     text = read_text(path)
-    return parse_decode_csv(text, label, problems) if looks_like_csv(text) else parse_decode_text(text, label, problems)
+    if not looks_like_csv(text):
+        return parse_decode_text(text, label, problems)
+    try:
+        return parse_decode_csv(text, label, problems)
+    except ValueError as exc:
+        raise ValueError(f"{path} (log {label}): {str(exc).removeprefix(label + ': ')}") from None
 
 
 def slots(df: pd.DataFrame, slot_s: float | None = None) -> np.ndarray:
@@ -571,7 +576,9 @@ def pair_spots(spots: pd.DataFrame, problems: Problems, *, a_slots: str = "even"
         problems.add(f"another listener than {listener.upper()}", label, spots["line"][other])
         spots = spots[~other]
     elif len(listeners) > 1:
-        raise ValueError(f"{label}: spots from {len(listeners)} listeners ({', '.join(listeners[:5])}); name one")
+        raise ValueError(
+            f"{label}: spots from {len(listeners)} listeners ({', '.join(listeners[:5])}); name one with --listener"
+        )
     s = spots.assign(slot=slots(spots))
     if "antenna" in s:
         is_a = (s["antenna"] == "a").to_numpy()
