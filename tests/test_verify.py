@@ -242,6 +242,13 @@ def test_prediction_through_the_pipeline():
     _, back, _, _ = vf.predict(WREN, "TX vertical", "Beverage Europe", [12], [0])
     m, lo, hi = pred[("Europe", 0)]
     assert back[("Europe", 0)] == pytest.approx((-m, -hi, -lo))
+    # two candidates: the medians subtract; the band holds the median and is wider than either antenna's own
+    _, both, _, notes = vf.predict(WREN, "Beverage Pacific", "Beverage Europe", [12], [0])
+    _, pac, _, _ = vf.predict(WREN, "Beverage Pacific", "TX vertical", [12], [0])
+    mp, lop, hip = pac[("Europe", 0)]
+    mb, lob, hib = both[("Europe", 0)]
+    assert mb == pytest.approx(mp - m) and lob < mb < hib
+    assert hib - lob >= max(hip - lop, hi - lo) and "as if they were independent" in notes[0]
 
 
 def test_cli_verdicts_json_and_figure(tmp_path):

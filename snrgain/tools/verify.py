@@ -315,7 +315,11 @@ def _scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[fl
 
 
 def _difference(res, a: str, b: str, t: int) -> tuple[float, float, float, bool]:
-    """(median, p10, p90) of A - B toward target t from one Results, and whether the band is the pipeline's own."""
+    """(median, p10, p90) of A - B toward target t from one Results, and whether the band is the pipeline's own.
+
+    When B (or A) is the reference, the band is the pipeline's spread of the other's SNR gain over it.  Otherwise
+    the medians subtract, and the band's half-widths are the two antennas' own (below and above their medians)
+    added in quadrature, as if independent: wider than the difference's true spread, since both share the sky."""
     by = {x.name: x for x in res.antennas}
     ref = res.reference.name
     a = ref if a == "reference" else a
@@ -327,14 +331,10 @@ def _difference(res, a: str, b: str, t: int) -> tuple[float, float, float, bool]
         x = by[b]
         return -float(x.snr_gain_median_db[t]), -float(x.snr_gain_p90_db[t]), -float(x.snr_gain_p10_db[t]), True
     xa, xb = by[a], by[b]
-    d = xa.snr_gain_db[t] - xb.snr_gain_db[t]  # (months, hours)
-    variants = [d]
-    if xa.snr_gain_atmospheric_deciles_db is not None and xb.snr_gain_atmospheric_deciles_db is not None:
-        variants += list(xa.snr_gain_atmospheric_deciles_db[:, t] - xb.snr_gain_atmospheric_deciles_db[:, t])
-    allv = np.concatenate([np.ravel(v) for v in variants])
-    allv = allv[np.isfinite(allv)]
     med = float(xa.snr_gain_median_db[t] - xb.snr_gain_median_db[t])
-    return med, float(allv.min()), float(allv.max()), False
+    lo_a, hi_a = xa.snr_gain_median_db[t] - xa.snr_gain_p10_db[t], xa.snr_gain_p90_db[t] - xa.snr_gain_median_db[t]
+    lo_b, hi_b = xb.snr_gain_median_db[t] - xb.snr_gain_p10_db[t], xb.snr_gain_p90_db[t] - xb.snr_gain_median_db[t]
+    return med, med - float(np.hypot(lo_a, hi_b)), med + float(np.hypot(hi_a, lo_b)), False
 
 
 def predict(sc_path, a: str, b: str, months: list[int], hours: list[int], *, p372_dir=None):
@@ -360,9 +360,9 @@ def predict(sc_path, a: str, b: str, months: list[int], hours: list[int], *, p37
     notes = []
     if not own:
         notes.append(
-            "neither antenna is the scenario's reference: the predicted band is the range of the nominal difference "
-            "over the months (and the atmospheric noise's deciles), not the pipeline's full 10-90 % spread, which is "
-            "of each antenna over the reference"
+            "neither antenna is the scenario's reference: the pipeline's spreads are of each antenna over the "
+            "reference, so the predicted band combines the two as if they were independent; they share the sky, so "
+            "the band is wider than the difference's own (a verdict other than 'agrees' still stands)"
         )
     return [t["name"] for t in res.targets], out, looks_of(res), notes
 
