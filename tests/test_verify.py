@@ -280,6 +280,8 @@ def test_cli_verdicts_json_and_figure(tmp_path):
     assert again.exit_code == 2 and "--overwrite" in again.output
     text = CliRunner().invoke(cli, args)
     assert text.exit_code == 0 and "measured better" in text.output and "90 % interval" in text.output
+    assert "Europe: Beverage Europe does better against TX vertical than predicted" in text.output
+    assert any(v.startswith("Europe: Beverage Europe does better") for v in data["verdicts"])
 
 
 @pytest.mark.parametrize(

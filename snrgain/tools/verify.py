@@ -156,6 +156,9 @@ class VerifyResult:
             "pairing_rule": self.rule,
             "pairs": len(self.pairs),
             "groups": [g.as_dict() for g in self.groups],
+            "verdicts": [
+                verdict_sentence(self, g) for g in self.groups if g.hour is None and g.predicted_db is not None
+            ],
             "lines_not_used": self.problems.as_dict(),
             "notes": self.notes,
         }
@@ -430,8 +433,10 @@ def summarise(
         sub = by_target.get(name)
         diffs = sub["diff_db"].to_numpy(float) if sub is not None else np.array([])
         groups.append(_group(name, None, diffs, rng, n_boot, pred, min_pairs))
+        if name not in target_names:  # a compass sector: pooled only, no prediction to set beside its hours
+            continue
         by_hour = dict(tuple(sub.groupby("hour"))) if sub is not None else {}
-        for h in hours_all if name in target_names else sorted(by_hour):
+        for h in hours_all:
             d = by_hour[h]["diff_db"].to_numpy(float) if h in by_hour else np.array([])
             groups.append(_group(name, int(h), d, rng, n_boot, pred, min_pairs))
     return groups
@@ -533,6 +538,20 @@ def _num(x, fmt="+.1f"):
     return "-" if x is None or not np.isfinite(x) else format(x, fmt)
 
 
+def verdict_sentence(r: VerifyResult, g: Group) -> str:
+    """One target's verdict in words, with the numbers it rests on."""
+    if g.verdict == "too few pairs":
+        return f"{g.target}: too few pairs ({g.n}) for a verdict; listen longer or widen --sector-width"
+    meas = f"{g.median_db:+.1f} dB ({g.low_db:+.1f} to {g.high_db:+.1f}, {g.n} pairs)"
+    pred = f"{g.predicted_db:+.1f} dB ({g.predicted_p10_db:+.1f} to {g.predicted_p90_db:+.1f})"
+    words = {
+        "agrees": "the measurement agrees with the prediction",
+        "measured better": f"{r.a} does better against {r.b} than predicted",
+        "measured worse": f"{r.a} does worse against {r.b} than predicted",
+    }[g.verdict]
+    return f"{g.target}: {words}: measured {meas}, predicted {pred}"
+
+
 def report_lines(r: VerifyResult) -> list[str]:
     out = [
         f"{r.site}: {r.a} minus {r.b}, {r.band}, months {r.months}, UTC hours {r.hours}",
@@ -550,6 +569,9 @@ def report_lines(r: VerifyResult) -> list[str]:
             f"{g.target[:22]:<22} {hour:>4} {g.n:>6} {_num(g.median_db):>9} {meas:>15} "
             f"{_num(g.predicted_db):>9} {band:>15}  {g.verdict or ''}"
         )
+    said = [verdict_sentence(r, g) for g in r.groups if g.hour is None and g.predicted_db is not None]
+    if said:
+        out += ["", "verdicts:", *(f"  {x}" for x in said)]
     warn = [
         f"  {g.target} ({'all hours' if g.hour is None else f'{g.hour:02d} UTC'}): {w}"
         for g in r.groups
