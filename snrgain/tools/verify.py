@@ -633,14 +633,17 @@ def figure(r: VerifyResult, looks=None):
                     label="measured median, 90 % interval" if g is gs[0] else None,
                 )
                 ax.annotate(
-                    f"{g.n}",
+                    f"{g.n}" if g.verdict != "too few pairs" else f"{g.n} (too few)",
                     (xx, g.high_db if np.isfinite(g.high_db) else g.median_db),
                     textcoords="offset points",
                     xytext=(0, 4),
                     ha="center",
                     fontsize=7,
+                    bbox={"fc": "white", "ec": "none", "pad": 0.6},
                 )
         ax.set_xticks(x, [f"{h:02d}" for h in order])
+        if len(x):
+            ax.set_xlim(x.min() - 0.8, x.max() + 0.8)
         ax.axhline(0.0, color="0.6", lw=0.6)
         ax.set_ylabel("A - B [dB]")
         ax.set_title(f"{name}: {r.a} minus {r.b}", fontsize=10)
