@@ -39,6 +39,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from snrgain.files import InputFileError  # noqa: F401 - re-exported: what read_text raises
 from snrgain.tools.locator import LOCATOR_SHAPE, is_locator
 
 MAX_LOG_BYTES = 200_000_000
@@ -120,12 +121,12 @@ class Problems:
 COLUMNS = ("line", "time", "band", "mode", "snr_db", "dt_s", "audio_hz", "message")
 
 
-def read_text(path) -> str:
+def read_text(path, what: str = "log") -> str:
     """A log's text (a regular file within :data:`MAX_LOG_BYTES`); undecodable bytes become U+FFFD (the line then
     fails on its own, named)."""
     from snrgain.files import read_limited
 
-    return read_limited(Path(path), limit_bytes=MAX_LOG_BYTES, what="log").decode("utf-8", errors="replace")
+    return read_limited(Path(path), limit_bytes=MAX_LOG_BYTES, what=what).decode("utf-8", errors="replace")
 
 
 @contextlib.contextmanager

@@ -169,7 +169,7 @@ class VerifyResult:
 
 def read_places(path, problems: logs.Problems) -> dict[str, tuple[float, float]]:
     """A CSV of call -> place: columns ``call`` and either ``latitude``, ``longitude`` [deg] or ``locator``."""
-    text = logs.read_text(path)
+    text = logs.read_text(path, "places file")
     label = "places"
     reader = csv.reader(io.StringIO(text))
     header = None
@@ -478,7 +478,12 @@ def verify(
         sc = load(scenario, p372_dir=p372_dir)
     problems = logs.Problems()
     if spots is not None:
-        sp = logs.parse_spots_csv(logs.read_text(spots), "spots", problems)
+        try:
+            sp = logs.parse_spots_csv(logs.read_text(spots, "spot list"), "spots", problems)
+        except logs.InputFileError:
+            raise
+        except ValueError as exc:
+            raise ValueError(f"{spots}: {str(exc).removeprefix('spots: ')}") from None
         frames = []
         sp = _keep_band(sp, sc.freq_hz, "spots", problems)
         pairs = logs.pair_spots(sp, problems, a_slots=a_slots, listener=listener)
