@@ -111,3 +111,18 @@ def test_bad_sweeps_are_named(tmp_path):
     )
     out = CliRunner().invoke(cli, ["calibrate", str(tmp_path / "wire.toml")])
     assert out.exit_code == 2 and "far_end" in out.output
+
+
+def test_sweep_through_a_feed_line_is_flagged(model):
+    """Three metres of 50 ohm coax (VF 0.66) between analyser and wire: the warning names the feed line."""
+    ant, consts = model
+    z = _impedances(consts, ant.length_m, "open")
+    coax = [
+        lines.measured_constants(f, velocity_factor=0.66, attenuation_db_per_100m=0.5, z0_ohm=50.0) for f in FREQ_HZ
+    ]
+    through = np.array([lines.input_impedance(c, length_m=3.0, load_ohm=zl) for c, zl in zip(coax, z)])
+    res = ts.analyse(ts.Sweep(FREQ_HZ, through, "through"), length_m=ant.length_m, far_end="open")
+    assert res.reactance_share > ts.REACTANCE_SHARE_WARN
+    assert any("feed line" in w for w in res.warnings)
+    direct = ts.analyse(ts.Sweep(FREQ_HZ, z, "direct"), length_m=ant.length_m, far_end="open")
+    assert direct.reactance_share < 0.1 and not direct.warnings

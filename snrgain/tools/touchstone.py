@@ -19,7 +19,9 @@ termination matches: the trade trims the resistor for the least variation (commo
 
 These are standard transmission-line results (e.g. S. Ramo, J. R. Whinnery, T. Van Duzer, "Fields and Waves in
 Communication Electronics", 3rd ed., Wiley (1994), ch. 5; cited from memory).  A sweep taken through a feed line
-measures the line too: its reference plane is not the wire's feed.
+measures the line too: its reference plane is not the wire's feed.  At a wire's own feed the extremes of |Z| fall
+where the impedance is nearly resistive; through a length of mismatched line they do not, which is what the
+warning reads (:data:`REACTANCE_SHARE_WARN`).
 """
 
 from __future__ import annotations
@@ -32,6 +34,9 @@ import numpy as np
 from snrgain.physics.ground import C_M_PER_S
 
 FAR_ENDS = ("open", "short", "terminated")
+REACTANCE_SHARE_WARN = 0.2
+"""Median |X|/|Z| at the extremes above which a sweep is taken to come through a feed line (a wire swept at its
+feed reads about 0.03 in the tests; one metre of 50 ohm coax in between, 0.37)."""
 MAX_SWEEP_BYTES = 20_000_000
 """The largest Touchstone file read [bytes]."""
 
@@ -100,6 +105,8 @@ class SweepResult:
     attenuation_db_per_100m: float | None = None
     variation: float | None = None
     """For a terminated far end: greatest over least |Z| over the sweep [-]."""
+    reactance_share: float | None = None
+    """Median |X|/|Z| at the extremes [-]: near 0 for a wire swept at its feed; large through a feed line."""
     warnings: list[str] = field(default_factory=list)
 
     @property
@@ -116,6 +123,7 @@ class SweepResult:
             "z0_magnitude_ohm": self.z0_magnitude_ohm,
             "attenuation_db_per_100m": self.attenuation_db_per_100m,
             "variation": self.variation,
+            "reactance_share_at_extremes": self.reactance_share,
             "warnings": self.warnings,
         }
 
@@ -172,6 +180,18 @@ def analyse(sweep: Sweep, *, length_m: float, far_end: str) -> SweepResult:
     if ratios:
         al = float(np.median([r[0] for r in ratios]))
         res.attenuation_db_per_100m = 100.0 * al / length_m * 20.0 / np.log(10.0)
+    at = np.array([e["freq_hz"] for e in res.extremes])
+    if at.size:
+        zr = np.interp(at, sweep.freq_hz, sweep.z_ohm.real)
+        zi = np.interp(at, sweep.freq_hz, sweep.z_ohm.imag)
+        res.reactance_share = float(np.median(np.abs(zi) / np.hypot(zr, zi)))
+        if res.reactance_share > REACTANCE_SHARE_WARN:
+            res.warnings.append(
+                f"at the extremes of |Z| the impedance is far from resistive (median |X|/|Z| "
+                f"{res.reactance_share:.2f}; a wire swept at its own feed reads near 0): the sweep looks taken through "
+                "a feed line, so its reference plane is not the wire's feed and the velocity factor and |Z0| are not "
+                "the wire's; sweep at the feed point, or calibrate the analyser at the line's far end"
+            )
     vfs = np.array([e["velocity_factor"] for e in res.extremes])
     if vfs.size and (vfs.max() > 1.0 or vfs.min() < 0.3):
         res.warnings.append(
