@@ -63,7 +63,10 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         return
     try:
         data = cal.load_readings(readings)
-        count = f"{len(data.open_short)} open/short reading(s), {len(data.resonance_hz)} resonance(s)"
+        count = (
+            f"{len(data.open_short)} open/short reading(s), {len(data.resonance_hz)} resonance(s), "
+            f"{len(data.sweeps)} sweep(s)"
+        )
         with progress(None, f"calibrate: fitting {count}"):
             res = cal.calibrate(data, expected_velocity_factor=expected_vf, permittivity=permittivity)
     except cal.ReadingError as exc:  # the readings cannot answer: say which file
@@ -106,6 +109,24 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         lines_out.append(
             f"  quarter-wave resonance at {r['freq_hz'] / 1e6:g} MHz: velocity factor {r['velocity_factor']:.3f}"
         )
+    for sw in res.sweeps:
+        vf = sw.velocity_factor
+        parts = [f"  sweep {Path(sw.label).name} (far end {sw.far_end}):"]
+        if vf is not None:
+            fs = [e["freq_hz"] for e in sw.extremes]
+            parts.append(
+                f"velocity factor {vf:.3f} (median of {len(fs)} extremes, {min(fs) / 1e6:g}-{max(fs) / 1e6:g} MHz)"
+            )
+        if sw.z0_magnitude_ohm is not None:
+            parts.append(f"|Z0| {sw.z0_magnitude_ohm:.0f} ohm")
+        if sw.attenuation_db_per_100m is not None:
+            parts.append(f"attenuation {sw.attenuation_db_per_100m:.2f} dB/100 m")
+        if sw.variation is not None:
+            parts.append(
+                f"|Z| varies {sw.variation:.2f}:1 over the sweep (trim the termination for the least variation)"
+            )
+        lines_out.append(" ".join(parts))
+        lines_out += [f"    warning: {w}" for w in sw.warnings]
     g = out["fitted_ground"]
     eps_txt = (
         f"{g['permittivity']:.3g} (fixed)"

@@ -14,6 +14,7 @@ from snrgain.cli.noise import noise
 from snrgain.cli.rank import rank
 from snrgain.cli.report import figures, report
 from snrgain.cli.sweep import sweep
+from snrgain.cli.verify import verify
 from snrgain.cli.wire import wire
 from snrgain.errors import RECEIVED as _received  # the stop signals received (the first decides the exit code)
 from snrgain.errors import Interrupted
@@ -98,6 +99,7 @@ cli.add_command(report)
 cli.add_command(figures)
 cli.add_command(sweep)
 cli.add_command(layout)
+cli.add_command(verify)
 
 
 def main() -> None:

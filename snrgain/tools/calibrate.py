@@ -22,7 +22,7 @@ import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Annotated, Any
+from typing import Annotated, Any, Literal
 
 import numpy as np
 from pydantic import BeforeValidator
@@ -310,6 +310,13 @@ short = [160.0, 240.0]
 
 [[resonance]]               # optional: first quarter-wave resonance, far end open
 frequency = "0.72 MHz"
+
+# optional: analyser sweeps saved as Touchstone 1-port files (any unit, S/Z, RI/MA/DB, reference impedance),
+# taken at the wire's feed (not through a feed line), the far end open, shorted or terminated; a path is read
+# from this file's folder
+# [[sweep]]
+# file = "open.s1p"
+# far_end = "open"
 """
 
 
@@ -321,6 +328,8 @@ class WireReadings:
     """The wire (a long-wire family antenna) as built."""
     open_short: list[OpenShort] = field(default_factory=list)
     resonance_hz: list[float] = field(default_factory=list)
+    sweeps: list[tuple[Path, str]] = field(default_factory=list)
+    """Touchstone files and the far end each was taken with (snrgain.tools.touchstone)."""
 
 
 def load_readings(path: str | Path) -> WireReadings:
@@ -344,10 +353,15 @@ def load_readings(path: str | Path) -> WireReadings:
     class ResonanceEntry(StrictModel):
         frequency: Frequency
 
+    class SweepEntry(StrictModel):
+        file: str = Field(min_length=1, max_length=4096)
+        far_end: Literal["open", "short", "terminated"]
+
     class ReadingsFile(StrictModel):
         wire: dict[str, Any]
         open_short: list[OpenShortEntry] = Field(default_factory=list, max_length=200)
         resonance: list[ResonanceEntry] = Field(default_factory=list, max_length=200)
+        sweep: list[SweepEntry] = Field(default_factory=list, max_length=24)
 
     path = Path(path)
     data = read_toml(path)
@@ -379,12 +393,21 @@ def load_readings(path: str | Path) -> WireReadings:
         ant = build(spec, "wire")
     except SpecError as exc:
         raise ReadingsError(str(path), exc.problems) from None
-    if not f.open_short and not f.resonance:
+    if not f.open_short and not f.resonance and not f.sweep:
         raise ReadingsError(
-            str(path), [("", "no readings; add [[open_short]] or [[resonance]] entries (see --example)")]
+            str(path), [("", "no readings; add [[open_short]], [[resonance]] or [[sweep]] entries (see --example)")]
         )
+    sweeps = [(path.parent / e.file, e.far_end) for e in f.sweep]
+    missing = [
+        (f"sweep[{i}].file", f"{p} is not a file") for i, (p, _) in enumerate(sweeps, start=1) if not p.is_file()
+    ]
+    if missing:
+        raise ReadingsError(str(path), missing)
     return WireReadings(
-        ant, [OpenShort(r.frequency, r.open, r.short) for r in f.open_short], [r.frequency for r in f.resonance]
+        ant,
+        [OpenShort(r.frequency, r.open, r.short) for r in f.open_short],
+        [r.frequency for r in f.resonance],
+        sweeps,
     )
 
 
@@ -402,6 +425,8 @@ class Calibration:
     suggested_turns_ratio: float | None
     height_fit: HeightFit | None = None
     """For a BOG on the surface: its axis height over the wire's ground that fits the readings."""
+    sweeps: list = field(default_factory=list)
+    """What each Touchstone sweep gave (snrgain.tools.touchstone.SweepResult)."""
 
     def as_dict(self) -> dict:
         """JSON-ready (SI units in the keys)."""
@@ -423,6 +448,8 @@ class Calibration:
         if self.suggested_termination_ohm is not None:
             out["suggested_termination_ohm"] = self.suggested_termination_ohm
             out["suggested_turns_ratio"] = self.suggested_turns_ratio
+        if self.sweeps:
+            out["sweeps"] = [sw.as_dict() for sw in self.sweeps]
         if self.height_fit is not None:
             h = self.height_fit
             out["fitted_height"] = {
@@ -463,19 +490,59 @@ def calibrate(
         vf = vf_from_quarter_wave(ant.length_m, f)
         resonances.append({"freq_hz": f, "velocity_factor": vf})
         measured.append({"freq_hz": f, "velocity_factor": vf})
+    swept = sweep_readings(readings.sweeps, ant.length_m)
+    for sw in swept:
+        measured += [
+            {"freq_hz": e["freq_hz"], "velocity_factor": e["velocity_factor"]} for e in _spread_pick(sw.extremes)
+        ]
+    if not measured:
+        what = "; ".join(
+            f"{sw.label}: " + (f"|Z| varies {sw.variation:.2f}:1 over the sweep" if sw.variation else "no extremes")
+            for sw in swept
+        )
+        raise ReadingError(
+            f"nothing to fit the line and ground to ({what}); a terminated sweep shows the termination's match only: "
+            "add an open or shorted sweep, or open/short readings"
+        )
     coarse = None
     if getattr(ant.params, "line_model", "closed-form") == "exact":
         coarse = variant(ant, line_model="closed-form").computed_line
     fit = fit_ground(ant.computed_line, measured, permittivity=permittivity, coarse_line=coarse)
     term = turns = None
-    if constants:
-        z0 = abs(constants[0].z0)
+    z0s = [sw.z0_magnitude_ohm for sw in swept if sw.z0_magnitude_ohm is not None]
+    if constants or z0s:
+        z0 = abs(constants[0].z0) if constants else float(np.median(z0s))
         term = max(z0 - ant.far_rod_ohm, 0.0)
         turns = float(np.sqrt((z0 + ant.feed_rod_ohm) / ant.params.coax))
     height = None
     if "depth" in type(ant.params).model_fields and not ant.params.depth > 0:  # a wire on the soil, not buried
         height = fit_bog_height(ant, measured, [(ln.freq_hz, abs(ln.z0)) for ln in constants])
-    return Calibration(ant, constants, resonances, fit, term, turns, height)
+    return Calibration(ant, constants, resonances, fit, term, turns, height, swept)
+
+
+SWEEP_POINTS_FITTED = 6
+"""The most extremes of one sweep passed to the ground fit (spread over the sweep; each costs the wire's line mode
+at every trial ground)."""
+
+
+def _spread_pick(extremes: list[dict]) -> list[dict]:
+    if len(extremes) <= SWEEP_POINTS_FITTED:
+        return list(extremes)
+    idx = np.unique(np.round(np.linspace(0, len(extremes) - 1, SWEEP_POINTS_FITTED)).astype(int))
+    return [extremes[i] for i in idx]
+
+
+def sweep_readings(sweeps: list[tuple[Path, str]], length_m: float) -> list:
+    """Each Touchstone sweep read (scikit-rf) and analysed (snrgain.tools.touchstone); ReadingError naming the file."""
+    from snrgain.tools import touchstone
+
+    out = []
+    for path, far_end in sweeps:
+        try:
+            out.append(touchstone.analyse(touchstone.read_sweep(path), length_m=length_m, far_end=far_end))
+        except touchstone.SweepError as exc:
+            raise ReadingError(str(exc)) from None
+    return out
 
 
 def with_ground(text: str, value: str) -> str:

@@ -1,0 +1,151 @@
+"""``snrgain verify``: the prediction against paired decodes heard on two antennas."""
+
+from __future__ import annotations
+
+import click
+
+from snrgain.cli.options import (
+    FiniteRange,
+    check_output,
+    emit_json,
+    handle_errors,
+    overwrite_option,
+    p372_dir_option,
+    plot_option,
+    progress,
+)
+
+
+@click.command("verify")
+@click.argument("scenario", type=click.Path(dir_okay=False, path_type=str), required=False)
+@click.option("--a", "antenna_a", metavar="NAME", default=None, help="The scenario's antenna that log A was heard on.")
+@click.option("--b", "antenna_b", metavar="NAME", default=None, help="The scenario's antenna that log B was heard on.")
+@click.option("--log-a", type=click.Path(dir_okay=False, path_type=str), default=None, help="Decodes on antenna A.")
+@click.option("--log-b", type=click.Path(dir_okay=False, path_type=str), default=None, help="Decodes on antenna B.")
+@click.option(
+    "--spots",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Instead of two logs: one listener's spot list, antennas alternating by slot (see --example spots).",
+)
+@click.option(
+    "--a-slots",
+    type=click.Choice(["even", "odd"]),
+    default="even",
+    show_default=True,
+    help="With --spots and no antenna column: which slots were heard on antenna A.",
+)
+@click.option("--listener", default=None, metavar="CALL", help="With --spots: keep this listener's spots only.")
+@click.option(
+    "--places",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="CSV of call -> latitude, longitude or locator; overrides the locators the messages give.",
+)
+@click.option(
+    "--max-hz",
+    type=FiniteRange(0.0, 100.0),
+    default=5.0,
+    show_default=True,
+    help="Largest audio-offset difference of a pair [Hz].",
+)
+@click.option(
+    "--slot", "slot_s", type=FiniteRange(1.0, 3600.0), default=None, help="Slot length [s] (default: the mode's)."
+)
+@click.option(
+    "--sector-width",
+    type=FiniteRange(1.0, 180.0),
+    default=30.0,
+    show_default=True,
+    help="A station belongs to the nearest target within half this many degrees of its bearing.",
+)
+@click.option(
+    "--min-pairs",
+    type=click.IntRange(2, 100000),
+    default=20,
+    show_default=True,
+    help="Fewest pairs for a verdict.",
+)
+@click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=1, show_default=True, help="Bootstrap seed.")
+@click.option(
+    "--example",
+    type=click.Choice(["log", "csv", "spots", "places"]),
+    default=None,
+    help="Print an example file of that kind and exit.",
+)
+@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@plot_option("the figure of predicted bands and measured intervals per target and hour")
+@overwrite_option
+@p372_dir_option
+@handle_errors
+def verify(
+    scenario,
+    antenna_a,
+    antenna_b,
+    log_a,
+    log_b,
+    spots,
+    a_slots,
+    listener,
+    places,
+    max_hz,
+    slot_s,
+    sector_width,
+    min_pairs,
+    seed,
+    example,
+    fmt,
+    plot,
+    overwrite,
+    p372_dir,
+):
+    """Compare the SCENARIO's predicted SNR difference between two antennas with decodes heard on both.
+
+    Give two decode logs (--log-a, --log-b; the common ALL-decodes text format or a CSV) taken at the same time
+    on antennas --a and --b, or one listener's --spots.  Decodes of the same message in the same slot within
+    --max-hz are paired; each sender is placed by its locator (or --places) and falls in the nearest target.
+    Per target and UTC hour: the median of A - B with a bootstrap 90 % interval and N, the predicted median
+    and 10-90 % band, and a verdict (agrees, measured better, measured worse, too few pairs).  Every line not
+    used is counted by reason with its line numbers.
+    """
+    from snrgain.tools import verify as vf
+
+    if example is not None:
+        click.echo(vf.EXAMPLES[example], nl=False)
+        return
+    if scenario is None:
+        raise click.UsageError("give a SCENARIO (see --example for the log formats)")
+    if antenna_a is None or antenna_b is None:
+        raise click.UsageError("name both antennas: --a NAME --b NAME (the scenario's names)")
+    if spots is None and (log_a is None or log_b is None):
+        raise click.UsageError("give --log-a and --log-b, or --spots")
+    if spots is not None and (log_a is not None or log_b is not None):
+        raise click.UsageError("--spots replaces --log-a and --log-b; give one or the other")
+    check_output(plot, overwrite=overwrite)
+    with progress(None, "verify: reading, pairing and predicting"):
+        res = vf.verify(
+            scenario,
+            a_name=antenna_a,
+            b_name=antenna_b,
+            log_a=log_a,
+            log_b=log_b,
+            spots=spots,
+            places=places,
+            max_hz=max_hz,
+            slot_s=slot_s,
+            a_slots=a_slots,
+            listener=listener,
+            sector_width_deg=sector_width,
+            min_pairs=min_pairs,
+            seed=seed,
+            p372_dir=p372_dir,
+        )
+    if plot is not None:
+        from snrgain.outputs.plots import save
+
+        save(vf.figure(res, looks=res.looks), plot, overwrite=overwrite)
+        click.echo(f"wrote {plot}", err=True)
+    if fmt == "json":
+        emit_json(res.as_dict())
+        return
+    click.echo("\n".join(vf.report_lines(res)))

@@ -1,0 +1,128 @@
+"""calibrate with Touchstone sweeps: a sweep synthesised from the line model returns its velocity factor and |Z0|."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from snrgain.antennas.base import build
+from snrgain.cli.main import cli
+from snrgain.physics import lines
+from snrgain.tools import calibrate as cal
+from snrgain.tools import touchstone as ts
+
+WIRE = {"family": "beverage", "length": "250 m", "height": "2 m", "ground": "moist loam"}
+FREQ_HZ = np.linspace(0.2e6, 3.6e6, 500)
+
+
+@pytest.fixture(scope="module")
+def model():
+    """The wire as built and its line constants from the project's line model (the exact mode) over the sweep."""
+    ant = build(WIRE, "wire")
+    return ant, [ant.computed_line(float(f)) for f in FREQ_HZ]
+
+
+def _impedances(consts, length_m, far_end):
+    load = {"open": None, "short": 0.0}[far_end]
+    return np.array([lines.input_impedance(c, length_m=length_m, load_ohm=load) for c in consts])
+
+
+@pytest.mark.parametrize("far_end", ["open", "short"])
+def test_sweep_returns_the_line_models_vf_and_z0(model, far_end, tmp_path):
+    ant, consts = model
+    path = tmp_path / f"{far_end}.s1p"
+    ts.write_s1p(path, FREQ_HZ, _impedances(consts, ant.length_m, far_end))
+    res = ts.analyse(ts.read_sweep(path), length_m=ant.length_m, far_end=far_end)
+    assert len(res.extremes) >= 8 and not res.warnings
+    for e in res.extremes:
+        i = int(np.argmin(abs(FREQ_HZ - e["freq_hz"])))
+        assert e["velocity_factor"] == pytest.approx(consts[i].velocity_factor, rel=0.01), e
+    z0_model = np.median([abs(consts[int(np.argmin(abs(FREQ_HZ - e["freq_hz"])))].z0) for e in res.extremes])
+    assert res.z0_magnitude_ohm == pytest.approx(z0_model, rel=0.05)
+
+
+def test_any_touchstone_form_reads_alike(model, tmp_path):
+    """Written by scikit-rf in MA and DB forms, as Z parameters, in kHz, with a 75 ohm reference: the same sweep."""
+    import skrf
+
+    ant, consts = model
+    z = _impedances(consts, ant.length_m, "open")
+    ref = ts.read_sweep(_written(tmp_path / "ri.s1p", z))
+    freq = skrf.Frequency.from_f(FREQ_HZ / 1e3, unit="khz")
+    s75 = (z - 75.0) / (z + 75.0)
+    net = skrf.Network(frequency=freq, s=s75.reshape(-1, 1, 1), z0=75.0)
+    for form, param in (("ma", "S"), ("db", "S"), ("ri", "Z")):
+        p = tmp_path / f"{form}{param}.s1p"
+        net.write_touchstone(str(p), form=form, parameter=param, r_ref=75.0, write_z0=False)
+        got = ts.read_sweep(p)
+        np.testing.assert_allclose(got.freq_hz, ref.freq_hz, rtol=1e-9)
+        np.testing.assert_allclose(got.z_ohm, ref.z_ohm, rtol=1e-4)
+
+
+def _written(path, z):
+    ts.write_s1p(path, FREQ_HZ, z)
+    return path
+
+
+def test_terminated_sweep_variation(model, tmp_path):
+    ant, consts = model
+    z0 = abs(consts[len(consts) // 2].z0)
+    z = {}
+    for r in (0.5 * z0, z0, 2 * z0):
+        z[r] = np.array([lines.input_impedance(c, length_m=ant.length_m, load_ohm=r) for c in consts])
+    var = {
+        r: ts.analyse(ts.Sweep(FREQ_HZ, v, "t"), length_m=250.0, far_end="terminated").variation for r, v in z.items()
+    }
+    assert var[z0] < var[0.5 * z0] and var[z0] < var[2 * z0]  # the matched termination varies least
+
+
+def test_calibrate_reads_sweeps_from_the_readings_file(model, tmp_path):
+    ant, consts = model
+    ts.write_s1p(tmp_path / "open.s1p", FREQ_HZ, _impedances(consts, ant.length_m, "open"))
+    (tmp_path / "wire.toml").write_text(
+        '[wire]\nfamily = "beverage"\nlength = "250 m"\nheight = "2 m"\n\n'
+        '[[sweep]]\nfile = "open.s1p"\nfar_end = "open"\n'
+    )
+    res = cal.calibrate(cal.load_readings(tmp_path / "wire.toml"))
+    at = [consts[int(np.argmin(abs(FREQ_HZ - e["freq_hz"])))] for e in res.sweeps[0].extremes]
+    assert res.sweeps[0].velocity_factor == pytest.approx(np.median([c.velocity_factor for c in at]), rel=0.01)
+    assert res.suggested_termination_ohm is not None
+    # the ground fitted to the sweep's velocity factors is the one the sweep was made over (moist loam, 5 mS/m)
+    assert res.fit.conductivity_s_per_m == pytest.approx(5e-3, rel=0.15)
+    out = CliRunner().invoke(cli, ["calibrate", str(tmp_path / "wire.toml")])
+    assert out.exit_code == 0, out.output
+    assert "sweep open.s1p (far end open): velocity factor" in out.output
+
+
+def test_bad_sweeps_are_named(tmp_path):
+    (tmp_path / "bad.s1p").write_text("this is not touchstone\n")
+    with pytest.raises(ts.SweepError, match="bad.s1p"):
+        ts.read_sweep(tmp_path / "bad.s1p")
+    (tmp_path / "wire.toml").write_text(
+        '[wire]\nfamily = "beverage"\nlength = "250 m"\nheight = "2 m"\n\n'
+        '[[sweep]]\nfile = "missing.s1p"\nfar_end = "open"\n'
+    )
+    out = CliRunner().invoke(cli, ["calibrate", str(tmp_path / "wire.toml")])
+    assert out.exit_code == 2 and "missing.s1p" in out.output and "Traceback" not in out.output
+    (tmp_path / "wire.toml").write_text(
+        '[wire]\nfamily = "beverage"\nlength = "250 m"\nheight = "2 m"\n\n'
+        '[[sweep]]\nfile = "bad.s1p"\nfar_end = "sideways"\n'
+    )
+    out = CliRunner().invoke(cli, ["calibrate", str(tmp_path / "wire.toml")])
+    assert out.exit_code == 2 and "far_end" in out.output
+
+
+def test_sweep_through_a_feed_line_is_flagged(model):
+    """Three metres of 50 ohm coax (VF 0.66) between analyser and wire: the warning names the feed line."""
+    ant, consts = model
+    z = _impedances(consts, ant.length_m, "open")
+    coax = [
+        lines.measured_constants(f, velocity_factor=0.66, attenuation_db_per_100m=0.5, z0_ohm=50.0) for f in FREQ_HZ
+    ]
+    through = np.array([lines.input_impedance(c, length_m=3.0, load_ohm=zl) for c, zl in zip(coax, z)])
+    res = ts.analyse(ts.Sweep(FREQ_HZ, through, "through"), length_m=ant.length_m, far_end="open")
+    assert res.reactance_share > ts.REACTANCE_SHARE_WARN
+    assert any("feed line" in w for w in res.warnings)
+    direct = ts.analyse(ts.Sweep(FREQ_HZ, z, "direct"), length_m=ant.length_m, far_end="open")
+    assert direct.reactance_share < 0.1 and not direct.warnings
