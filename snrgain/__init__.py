@@ -17,6 +17,8 @@ __version__ = "0.1.0"
 
 _LAZY = {
     "evaluate": "snrgain.model.pipeline",
+    "evaluate_bands": "snrgain.model.pipeline",
+    "BandResults": "snrgain.model.bands",
     "load": "snrgain.scenario",
     "Scenario": "snrgain.scenario",
     "ScenarioError": "snrgain.scenario",

@@ -16,11 +16,33 @@ def check(scenario, p372_dir):
     """Validate SCENARIO: every key, unit, range and antenna; run nothing.
 
     Prints a short summary on success; lists every problem (file, field,
-    value, what is allowed) and exits with code 2 otherwise.
+    value, what is allowed) and exits with code 2 otherwise.  A scenario of
+    several bands ([[band]]) is checked band by band.
     """
+    from snrgain.cli.options import band_names
     from snrgain.scenario import load
 
-    sc = load(scenario, p372_dir=p372_dir)
+    names = band_names(scenario)
+    if names:
+        from snrgain.errors import ScenarioError
+
+        loaded, problems = [], []
+        for name in names:
+            try:
+                loaded.append((name, load(scenario, p372_dir=p372_dir, band=name)))
+            except ScenarioError as exc:
+                problems += [(f'band "{name}": {where}', why) for where, why in exc.problems]
+        if problems:
+            raise ScenarioError(str(scenario), problems)
+        for name, sc in loaded:
+            click.echo(f"band {name!r}:")
+            _summary(sc)
+        return
+    _summary(load(scenario, p372_dir=p372_dir))
+
+
+def _summary(sc) -> None:
+    """What a valid scenario holds, and the geometry checks."""
     click.echo(f"{sc.source}: valid")
     click.echo(f"  site {sc.site.name!r} at {sc.site.latitude_deg:.3f}, {sc.site.longitude_deg:.3f}")
     click.echo(

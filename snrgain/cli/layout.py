@@ -7,6 +7,7 @@ from pathlib import Path
 import click
 
 from snrgain.cli.options import (
+    band_option,
     check_output,
     emit_json,
     handle_errors,
@@ -32,8 +33,9 @@ from snrgain.cli.options import (
 @plot_option("the best layout on the lot")
 @p372_dir_option
 @overwrite_option
+@band_option
 @handle_errors
-def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
+def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     """Search positions, bearings and lengths on the lot for the candidates with a place table.
 
     A candidate with  place = { bearing = ["20 deg", "70 deg"], length = ["150 m", "300 m"] }  may stand
@@ -52,7 +54,10 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite):
 
     for target in (write_to, plot):
         check_output(target, overwrite=overwrite)
+    from snrgain.scenario.bands import one_band
+
     data, label, base_dir = read_source(Path(scenario))
+    data = one_band(data, band, label)
     sc = load(data, p372_dir=p372_dir, base_dir=base_dir, label=label)
     problem = lay.Problem(sc, data, base_dir=base_dir)
     with progress(None, "layout: placements") as bar:

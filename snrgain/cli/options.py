@@ -74,11 +74,40 @@ reference_option = click.option(
 )
 
 
-def load_scenario(scenario, *, nside=None, p372_dir=None, reference=None):
-    """The scenario a command runs: loaded with the command line's --nside, --p372-dir and --reference."""
+band_option = click.option(
+    "--band",
+    "band",
+    default=None,
+    metavar="NAME",
+    help="In a scenario of several bands ([[band]]), the one to use (its name, or its frequency as written when "
+    "it has none).",
+)
+
+
+def load_scenario(scenario, *, nside=None, p372_dir=None, reference=None, band=None):
+    """The scenario a command runs: loaded with the command line's --nside, --p372-dir, --reference and --band."""
     from snrgain.scenario import load
 
-    return load(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, reference=reference)
+    return load(scenario, nside=int(nside) if nside else None, p372_dir=p372_dir, reference=reference, band=band)
+
+
+def band_names(scenario) -> list[str] | None:
+    """The band names of a scenario file of several bands; None for one band (or a file that cannot be read:
+    loading it then says why)."""
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import read_source
+    from snrgain.scenario.bands import split_bands
+
+    try:
+        data, label, _ = read_source(scenario)
+    except (OSError, ValueError):
+        return None
+    if not isinstance(data.get("band"), list):
+        return None
+    try:
+        return [name for name, _ in split_bands(data, label)]
+    except ScenarioError:
+        return None
 
 
 def plot_option(what: str):

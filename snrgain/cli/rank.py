@@ -6,6 +6,7 @@ import click
 
 from snrgain.cli.options import (
     allow_long_option,
+    band_option,
     check_output,
     handle_errors,
     nside_option,
@@ -45,8 +46,9 @@ from snrgain.cli.options import (
 @nside_option
 @p372_dir_option
 @reference_option
+@band_option
 @handle_errors
-def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, reference):
+def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, reference, band):
     """Which antenna to build for each target of SCENARIO, and how much better than its reference.
 
     SNR gain is (S/N of the candidate) / (S/N of the reference) toward a
@@ -56,36 +58,50 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
     P.372 noise deciles and the hours ([uncertainty] in the scenario), and
     the chance of beating the reference by 3 dB.  The station plan then names
     the set of antennas to build and which serves which target at which hours.
+
+    A scenario of several bands ([[band]]) is answered band by band (each as a file of that band alone would
+    be), then with one station plan for every band; --band NAME answers one of them.
     """
-    from snrgain.cli.options import load_scenario, progress
-    from snrgain.model.pipeline import evaluate
+    from snrgain.cli.options import band_names, load_scenario, progress
+    from snrgain.model.pipeline import evaluate, evaluate_bands
     from snrgain.outputs import output as out
 
     check_output(output, overwrite=overwrite)
+    several = band is None and band_names(scenario)
     with progress(None, f"rank: evaluating {scenario}"):
-        sc = load_scenario(scenario, nside=nside, p372_dir=p372_dir, reference=reference)
-        results = evaluate(sc, allow_long=allow_long)
+        if several:
+            results = evaluate_bands(
+                scenario,
+                nside=int(nside) if nside else None,
+                p372_dir=p372_dir,
+                allow_long=allow_long,
+                reference=reference,
+            )
+        else:
+            sc = load_scenario(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
+            results = evaluate(sc, allow_long=allow_long)
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     if fmt == "json":
-        text = out.to_json(results)
+        text = out.bands_to_json(results) if several else out.to_json(results)
     elif fmt == "csv":
-        text = out.to_csv(results)
+        text = out.bands_to_csv(results) if several else out.to_csv(results)
     else:
         text = None
     if fmt == "table":
         from rich.console import Console
 
+        table = out.bands_table(results, build=build) if several else out.ranking_table(results, build=build)
         if output is None:
             console = Console()
             if not console.is_terminal:
                 console = Console(width=120)
-            console.print(out.ranking_table(results, build=build))
+            console.print(table)
             return
         import io
 
         buf = Console(record=True, width=120, file=io.StringIO())
-        buf.print(out.ranking_table(results, build=build))
+        buf.print(table)
         text = buf.export_text()
     if output is None:
         click.echo(text, nl=False)

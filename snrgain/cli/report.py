@@ -8,6 +8,7 @@ import click
 
 from snrgain.cli.options import (
     allow_long_option,
+    band_option,
     check_output,
     handle_errors,
     nside_option,
@@ -34,8 +35,9 @@ from snrgain.cli.options import (
 @nside_option
 @p372_dir_option
 @reference_option
+@band_option
 @handle_errors
-def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference):
+def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, band):
     """Write one self-contained HTML report for SCENARIO: summary, ranking, figures, models, safety.
 
     The file has no scripts and loads nothing from the network; it prints cleanly.
@@ -44,7 +46,9 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference):
 
     check_output(output, overwrite=overwrite)
     with progress(None, f"report: evaluating {scenario}"):
-        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference)
+        results, plan = _evaluate(
+            scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
+        )
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     with progress(None, "report: drawing the figures"):
@@ -52,13 +56,16 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference):
     write_output(output, html, overwrite=overwrite)
 
 
-def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None):
-    """The scenario's results and its site plan (:func:`snrgain.outputs.siteplan.plan_of`, from the one load)."""
+def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None, band=None):
+    """The scenario's results and its site plan (:func:`snrgain.outputs.siteplan.plan_of`, from the one load);
+    ``band``: the band of a scenario of several."""
     from snrgain.model.pipeline import evaluate
     from snrgain.outputs.siteplan import plan_of
     from snrgain.scenario import load, read_source
+    from snrgain.scenario.bands import one_band
 
     data, label, base_dir = read_source(scenario)
+    data = one_band(data, band, label)
     sc = load(
         data,
         nside=int(nside) if nside else None,
@@ -91,8 +98,9 @@ def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None):
 @nside_option
 @p372_dir_option
 @reference_option
+@band_option
 @handle_errors
-def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir, reference):
+def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir, reference, band):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
     from snrgain.outputs import plots
 
@@ -101,7 +109,9 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         raise FileNotFoundError(f"folder {d} does not exist")
     names = list(only) or list(plots.FIGURES)
     with progress(None, f"figures: evaluating {scenario}"):
-        results, plan = _evaluate(scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference)
+        results, plan = _evaluate(
+            scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
+        )
     if "plan" in names and not plots.has_site_plan(results, plan=plan):
         if only:
             raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")

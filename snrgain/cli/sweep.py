@@ -8,6 +8,7 @@ import click
 
 from snrgain.cli.options import (
     allow_long_option,
+    band_option,
     check_output,
     handle_errors,
     nside_option,
@@ -57,8 +58,9 @@ from snrgain.cli.options import (
 @nside_option
 @p372_dir_option
 @reference_option
+@band_option
 @handle_errors
-def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long, nside, p372_dir, reference):
+def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long, nside, p372_dir, reference, band):
     """Run SCENARIO over every combination of the --vary values and write one row per design, varied antenna
     and target: the varied values, the SNR gain over the reference, RDF, front-to-back, gain toward the target
     and the worst-hour noise margin.
@@ -86,6 +88,7 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
         nside=int(nside) if nside else None,
         spread=spread,
         reference=reference,
+        band=band,
     )
     total = sw.design_count(parsed)
     if total > sw.MAX_DESIGNS:

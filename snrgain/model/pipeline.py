@@ -74,6 +74,38 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: boo
     return with_strong_signals(sc, results)
 
 
+def evaluate_bands(
+    source, *, nside: int | None = None, p372_dir=None, allow_long: bool = False, reference: str | None = None
+):
+    """Run every band of a scenario (``[[band]]``, :mod:`snrgain.scenario.bands`) and plan across them.
+
+    Each band is loaded and evaluated as a single-band file of it would be (:func:`evaluate`), so its answer is
+    that file's; problems name their band.  Returns :class:`snrgain.model.bands.BandResults`.  A file of one band
+    gives one entry, named by its frequency."""
+    from snrgain.decide.bandplan import plan_across_bands
+    from snrgain.errors import ScenarioError
+    from snrgain.model.bands import BandResults
+    from snrgain.scenario import read_source
+    from snrgain.scenario.bands import band_label, split_bands
+
+    if isinstance(source, dict):
+        data, label, base_dir = source, "<dict>", None
+    else:
+        data, label, base_dir = read_source(source)
+    out = []
+    for name, one in split_bands(data, label):
+        band = name if name is not None else band_label(one.get("band") or {})
+        try:
+            sc = load(one, nside=nside, p372_dir=p372_dir, base_dir=base_dir, label=label, reference=reference)
+        except ScenarioError as exc:
+            if name is None:
+                raise
+            raise ScenarioError(label, [(f'band "{band}": {where}', why) for where, why in exc.problems]) from None
+        out.append((band, evaluate(sc, allow_long=allow_long)))
+    plan, columns = plan_across_bands(out)
+    return BandResults(tuple(out), plan, columns)
+
+
 MAX_SECONDS = 300.0
 """Estimated run time [s] above which :func:`evaluate` refuses a scenario unless asked (``allow_long``)."""
 MAX_MEMORY_BYTES = 4 * 2**30
@@ -205,6 +237,7 @@ __all__ = [  # the stages, here or in the modules they live in (one import path 
     "pattern_cuts",
     "decide",
     "notices",
+    "evaluate_bands",
     "main_lobe_deg",
     "MAX_SECONDS",
     "MAX_MEMORY_BYTES",

@@ -22,20 +22,83 @@ CSV_COLUMNS = DATAFRAME_COLUMNS[: DATAFRAME_COLUMNS.index("receiver_snr_loss_db"
 """The CSV's columns: the tidy table's (snrgain.model.labelled) up to the receiver's SNR loss."""
 
 
-def to_csv(results: Results) -> str:
+def to_csv(results: Results, *, band: str | None = None, header: bool = True) -> str:
     """One row per target, antenna and listened month and hour (the reference has rank 0): the columns
-    :data:`CSV_COLUMNS` of :meth:`Results.to_dataframe`, dB to 0.001."""
+    :data:`CSV_COLUMNS` of :meth:`Results.to_dataframe`, dB to 0.001; ``band``: a first column naming the band
+    (a scenario of several bands)."""
     df = results.to_dataframe()
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(CSV_COLUMNS)
+    if header:
+        w.writerow((["band"] if band is not None else []) + CSV_COLUMNS)
     as_text = [
         "{:.3f}".format if c.endswith(("_db", "_dbi", "_dbm")) else "{:g}".format if c == "utc_hour" else str
         for c in CSV_COLUMNS
     ]
+    lead = [band] if band is not None else []
     for row in df[CSV_COLUMNS].itertuples(index=False):
-        w.writerow([f(v) for f, v in zip(as_text, row)])
+        w.writerow(lead + [f(v) for f, v in zip(as_text, row)])
     return buf.getvalue()
+
+
+def bands_to_json(br) -> str:
+    """JSON text of a scenario of several bands (:meth:`snrgain.model.bands.BandResults.to_dict`)."""
+    return json.dumps(br.to_dict(), sort_keys=True, indent=2, allow_nan=False) + "\n"
+
+
+def bands_to_csv(br) -> str:
+    """Every band's rows (:func:`to_csv`) under one header, the band in the first column."""
+    return "".join(to_csv(r, band=name, header=k == 0) for k, (name, r) in enumerate(br.bands))
+
+
+def band_plan_text(br):
+    """The station plan across the bands in words: what to build, the dB each adds, and who serves which band and
+    target when."""
+    from rich.text import Text
+
+    from snrgain.outputs.messages import plan_not_best_text
+
+    p = br.plan
+    ref = br.bands[0][1].reference.name
+    out = Text()
+    out.append("Station plan for every band", style="bold")
+    limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
+    if not p.antennas:
+        out.append(f"{limit}: no candidate adds {0.1:g} dB or more on any band; keep {ref}.\n")
+        return out
+    out.append(
+        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {ref} alone (each band and target's "
+        "median SNR gain on the antenna that serves it, averaged as power ratios, every band counting alike)\n"
+    )
+    for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
+        bands = sorted(
+            {br.columns[c][0] for c, rows in p.by_target.items() for srv in rows if srv.antenna == name},
+            key=[b for b, _ in br.bands].index,
+        )
+        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB; serves {', '.join(bands)}\n")
+    for c, rows in sorted(p.by_target.items()):
+        band, target = br.columns[c]
+        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
+        out.append(f"  {band}, {target}: {served}\n")
+    for c, why in sorted(p.not_best.items()):
+        band, target = br.columns[c]
+        out.append(f"  Note: {band}: {plan_not_best_text(target, why)}\n")
+    return out
+
+
+def bands_table(br, *, build: bool = False):
+    """A rich renderable for a scenario of several bands: each band's ranking as a single-band run prints it,
+    under the band's name, then the station plan across the bands."""
+    from rich.console import Group
+    from rich.rule import Rule
+
+    parts = []
+    for name, r in br.bands:
+        parts.append(Rule(f"{name}: {r.freq_hz / 1e6:g} MHz", align="left"))
+        parts.append(ranking_table(r, build=build))
+    parts.append(Rule("every band", align="left"))
+    parts.append(band_plan_text(br))
+    return Group(*parts)
 
 
 def _f(x, fmt="{:+.1f}"):

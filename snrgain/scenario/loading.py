@@ -21,6 +21,7 @@ from snrgain.units import length_unit_of
 
 from .antennas import Built, build_antennas
 from .band import Band
+from .bands import one_band
 from .compute import Uncertainty
 from .files import read_source
 from .local import local_levels_readable, local_sources_clear
@@ -41,6 +42,7 @@ def load(
     base_dir: Path | None = None,
     label: str | None = None,
     reference: str | None = None,
+    band: str | None = None,
 ) -> Scenario:
     """Load and validate a scenario from a path, TOML text or a dict.
 
@@ -50,12 +52,14 @@ def load(
     order.  A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
     name of an antenna of the scenario to rank against instead of the file's reference (the file's reference then
     stands among the candidates where that antenna stood; levels of local sources stay read where the file says,
-    :func:`choose_reference`).  Raises :class:`ScenarioError` listing every problem.
+    :func:`choose_reference`).  ``band``: the band to load from a file of several (``[[band]]``; a file of one
+    needs none; :mod:`snrgain.scenario.bands`).  Raises :class:`ScenarioError` listing every problem.
     """
     if isinstance(source, dict):
         data, label = source, label or "<dict>"
     else:
         data, label, base_dir = read_source(source)
+    data = one_band(data, band, label)
     length_unit = length_unit_of(data)
     data, problems = plan_from_latlon(data)
     model, more = validate(data)

@@ -36,6 +36,8 @@ class Target(StrictModel):
     """The months this target is listened for (default: [time] months)."""
     utc_hours: Hours | None = None
     """The UTC hours this target is listened at (default: [time] utc_hours)."""
+    bands: list[str] | None = Field(default=None, min_length=1, max_length=12)
+    """The names of the bands this target is listened on (``[[band]]``; default: every band)."""
 
     @field_validator("elevation", mode="before")
     @classmethod

@@ -209,6 +209,8 @@ class Study:
     spread: bool = False
     reference: str | None = None
     """Rank against this antenna of the scenario instead of its [reference] (``--reference``)."""
+    band: str | None = None
+    """The band of a scenario of several (``--band``)."""
 
     @property
     def fast(self) -> bool:
@@ -227,7 +229,13 @@ class Study:
 
         base = Path(self.base_dir) if self.base_dir else None
         sc = load(
-            data, nside=self.nside, p372_dir=self.p372_dir, base_dir=base, label=self.label, reference=self.reference
+            data,
+            nside=self.nside,
+            p372_dir=self.p372_dir,
+            base_dir=base,
+            label=self.label,
+            reference=self.reference,
+            band=self.band,
         )
         if not self.spread:
             sc = replace(

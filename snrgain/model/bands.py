@@ -1,0 +1,74 @@
+"""Results of a scenario of several bands: each band's own :class:`Results` and the station plan across them."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from snrgain.model.results import SCHEMA_VERSION, Results, jsonable
+
+
+@dataclass(frozen=True)
+class BandResults:
+    """``bands``: (band name, that band's Results) in the file's order; ``plan``: which antennas to build for
+    every band together (:func:`snrgain.decide.bandplan.plan_across_bands`), ``columns`` naming its targets as
+    (band, target) pairs."""
+
+    bands: tuple[tuple[str, Results], ...]
+    plan: Any = None
+    columns: tuple[tuple[str, str], ...] = ()
+    notices: list = field(default_factory=list)
+
+    def band(self, name: str) -> Results:
+        """The Results of one band."""
+        for n, r in self.bands:
+            if n == name:
+                return r
+        raise KeyError(f"no band named {name!r}; the bands are {[n for n, _ in self.bands]}")
+
+    @property
+    def warnings(self) -> list[str]:
+        """Every band's warnings, each marked with its band."""
+        return [f"[{name}] {w}" for name, r in self.bands for w in r.warnings]
+
+    def plan_dict(self) -> dict[str, Any]:
+        p = self.plan
+        return {
+            "antennas": p.antennas,
+            "added_db": p.added_db,
+            "gain_db": p.gain_db,
+            "method": p.method,
+            "max_antennas": p.max_antennas,
+            "by_band_and_target": [
+                {
+                    "band": self.columns[c][0],
+                    "target": self.columns[c][1],
+                    "served_by": [
+                        {
+                            "antenna": s.antenna,
+                            "months": s.months,
+                            "utc_hours": s.utc_hours,
+                            "snr_gain_db": s.snr_gain_db,
+                        }
+                        for s in rows
+                    ],
+                }
+                for c, rows in sorted(p.by_target.items())
+            ],
+            "not_best": [
+                {"band": self.columns[c][0], "target": self.columns[c][1], **why}
+                for c, why in sorted(p.not_best.items())
+            ],
+        }
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready: ``bands`` (each band's full results, as a single-band run gives them, with its ``band``
+        name) and ``station_plan`` across the bands."""
+        return jsonable(
+            {
+                "schema_version": SCHEMA_VERSION,
+                "bands": [{"band": name, **r.to_dict()} for name, r in self.bands],
+                "station_plan": self.plan_dict(),
+                "warnings": self.warnings,
+            }
+        )

@@ -1,0 +1,116 @@
+"""Several bands in one scenario (``[[band]]``): each band as a scenario of its own.
+
+A station plans its receiving antennas for 160, 80 and 40 m at once.  The file then gives ``[[band]]`` tables
+(each with ``frequency``, ``bandwidth`` and optionally ``name``, ``months`` and ``utc_hours``), and a target may
+name the bands it is listened on (``bands = ["160 m"]``; default every band).  :func:`split_bands` turns such a
+file into one single-band scenario per band: the band's table as ``[band]``, its months and hours as ``[time]``'s
+(a target's own times still win), and only the targets listened on it.  Each goes through the whole pipeline as
+it is, so a band's answer is exactly what a file of that band alone gives; the station plan across the bands
+(:func:`snrgain.decide.plan.plan_across_bands`) then uses the same statistic as each band's.
+"""
+
+from __future__ import annotations
+
+import copy
+
+from snrgain.errors import ScenarioError
+
+MAX_BANDS = 12
+
+
+def band_label(table: dict) -> str:
+    """A band's name: its ``name``, else its frequency as written."""
+    name = table.get("name")
+    return str(name) if name is not None else str(table.get("frequency", "?"))
+
+
+def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None, dict]]:
+    """(band name, single-band scenario) for each band of ``data``; a file with one ``[band]`` table gives
+    [(None, data)] unchanged.  ScenarioError naming the field for bands that cannot be told apart or targets naming
+    bands the file lacks."""
+    band = data.get("band")
+    if not isinstance(band, list):
+        if isinstance(band, dict):
+            here = band_label(band)
+            problems = [
+                (
+                    f"target {i + 1}.bands",
+                    f"no band named {sorted(set(t['bands']) - {here})}; the only band is {here!r}",
+                )
+                for i, t in enumerate(data.get("target") or [])
+                if isinstance(t, dict) and isinstance(t.get("bands"), list) and set(t["bands"]) - {here}
+            ]
+            if problems:
+                raise ScenarioError(label, problems)
+        return [(None, data)]
+    if not band or len(band) > MAX_BANDS:
+        raise ScenarioError(label, [("band", f"give 1 to {MAX_BANDS} [[band]] tables; got {len(band)}")])
+    if not all(isinstance(b, dict) for b in band):
+        raise ScenarioError(label, [("band", "each [[band]] entry is a table with frequency and bandwidth")])
+    names = [band_label(b) for b in band]
+    problems = []
+    for i, name in enumerate(names):
+        if name in names[:i]:
+            problems.append((f"band {i + 1}.name", f"{name!r} is already used by band {names.index(name) + 1}"))
+    targets = data.get("target") if isinstance(data.get("target"), list) else []
+    for i, t in enumerate(targets):
+        wanted = t.get("bands") if isinstance(t, dict) else None
+        if wanted is not None:
+            if not isinstance(wanted, list) or not all(isinstance(w, str) for w in wanted):
+                problems.append((f"target {i + 1}.bands", f"a list of band names, e.g. [{names[0]!r}]; got {wanted!r}"))
+                continue
+            unknown = sorted(set(wanted) - set(names))
+            if unknown:
+                problems.append(
+                    (f"target {i + 1}.bands", f"no band named {unknown}; the bands are {', '.join(map(repr, names))}")
+                )
+    if problems:
+        raise ScenarioError(label, problems)
+    out = []
+    for name, table in zip(names, band):
+        one = copy.deepcopy(data)
+        one["band"] = copy.deepcopy(table)
+        time = dict(one.get("time") or {})
+        for key in ("months", "utc_hours"):
+            if key in table:
+                time[key] = copy.deepcopy(table[key])
+        if time:
+            one["time"] = time
+        one["target"] = [
+            {k: copy.deepcopy(v) for k, v in t.items() if k != "bands"} if isinstance(t, dict) else t
+            for t in targets
+            if not isinstance(t, dict) or t.get("bands") is None or name in t.get("bands", [])
+        ]  # a band's own file: its targets need no band names
+        if not one["target"]:
+            raise ScenarioError(
+                label, [(f'band "{name}"', "no target is listened on this band; name it in a target's bands")]
+            )
+        out.append((name, one))
+    return out
+
+
+def one_band(data: dict, band: str | None, label: str = "<scenario>") -> dict:
+    """The single-band scenario of ``band`` (a name of ``split_bands``); a file of one band needs none, a file of
+    several needs one (ScenarioError naming --band and the bands)."""
+    parts = split_bands(data, label)
+    if len(parts) == 1 and parts[0][0] is None:
+        if band is not None and band != band_label(data.get("band") or {}):
+            raise ScenarioError(
+                label, [("--band", f"this file has one band ({band_label(data['band'])!r}); got {band!r}")]
+            )
+        return parts[0][1]
+    names = [n for n, _ in parts]
+    if band is None:
+        raise ScenarioError(
+            label,
+            [
+                (
+                    "band",
+                    f"this scenario has {len(names)} bands ({', '.join(map(repr, names))}): rank answers them all; "
+                    "this command takes one, --band NAME",
+                )
+            ],
+        )
+    if band not in names:
+        raise ScenarioError(label, [("--band", f"no band named {band!r}; the bands are {', '.join(map(repr, names))}")])
+    return parts[names.index(band)][1]
