@@ -18,6 +18,7 @@ Reports
   `python -c "import numpy"`, side by side with the pattern-against-PyNEC ratios.
 
     python benchmarks/bench.py --site     # only the realistic site and the PyNEC ratios (~1 min)
+    python benchmarks/bench.py --bands    # only three bands against one
 
 The P.372 coefficient files are read from $SNRGAIN_P372_DIR, else from ../shared/data/p372 beside the project.
 """
@@ -522,6 +523,22 @@ def _best_subprocess(cmd, n=5, env=None):
     return min(times)
 
 
+def bands_benchmark():
+    """tests/data/sites/three-bands.toml (160, 80, 40 m) through evaluate_bands against one band of it (80 m)
+    through evaluate, in this process after imports (target from issue 23: three bands at most 3.3x one)."""
+    from snrgain.model.pipeline import evaluate, evaluate_bands
+    from snrgain.scenario import load
+
+    path = REPO / "tests" / "data" / "sites" / "three-bands.toml"
+    evaluate_bands(path)  # warm: imports and caches
+    one, _ = best_of(lambda: evaluate(load(path, band="80 m")), n=3)
+    three, _ = best_of(lambda: evaluate_bands(path), n=3)
+    print(
+        f"\nthree bands in one scenario: {three * 1e3:.0f} ms against one band {one * 1e3:.0f} ms: "
+        f"{three / one:.2f}x (target <= 3.3x)"
+    )
+
+
 def realistic_site():
     """`snrgain rank` of the realistic site with no sky cache and with it warm, `report` and `figures` of it,
     `check` of it and the start-up of `rank`, as ratios to a bare numpy import (subprocesses, best of several;
@@ -587,9 +604,12 @@ if __name__ == "__main__":
     if "--site" in sys.argv[1:]:
         realistic_site()
         nec_ratios()
+    elif "--bands" in sys.argv[1:]:
+        bands_benchmark()
     else:
         cold_start()
         main()
         realistic_site()
         nec_ratios()
         sweep_benchmarks()
+        bands_benchmark()
