@@ -187,8 +187,11 @@ def test_terminated_loop_cardioid_and_figure_eight():
     assert fb > 15 and 500 < auto.termination_ohm(F) < 2500  # common practice: flags want about 1 kohm
     shorted = from_spec({**base, "termination": 0.0})
     assert abs(shorted.gain_dbi(F, 45, 20) - shorted.gain_dbi(F, 225, 20)) < 0.5
-    gv, _ = shorted.partial_gains_dbi(F, [45.0, 135.0], [5.0, 5.0])
-    assert gv[1] < gv[0] - 12  # the side null (vertical polarization), filled to about -16 dB by the line transit
+    gv, _ = shorted.partial_gains_dbi(F, [45.0, 135.0], [4.0, 4.0])
+    # The side null (vertical polarization) is filled by the loop's electric response: NEC-2 (nec2c, the deck of
+    # tests/nec/make_termloops.polygon_deck, 8.5 x 4.3 m flag 1.5 m up over 13 / 5 mS/m, shorted) puts it 10.46 dB
+    # under the end-on gain at 4 deg elevation (the model 10.45 dB).
+    assert 9.5 < gv[0] - gv[1] < 11.5
 
 
 def test_array_bad_input():
