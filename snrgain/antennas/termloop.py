@@ -68,7 +68,15 @@ from typing import Literal
 import numpy as np
 
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
-from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, port_response, vertical_emf
+from snrgain.antennas.longwire import (
+    best_resistor,
+    field_along_wire,
+    line_currents,
+    plane_wave,
+    port_response,
+    termination_figure,
+    vertical_emf,
+)
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
@@ -282,30 +290,20 @@ class TerminatedLoop(TransformerFeed, Antenna):
         return self._auto_term[freq_hz]
 
     def _best_termination(self, freq_hz: float) -> float:
-        """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation: a coarse sweep,
-        then a bounded search in log R between the best point's neighbours (to about 0.5 %)."""
-        from scipy.optimize import minimize_scalar
-
-        from noisemodels.sphere import upper_hemisphere
-
-        grid = upper_hemisphere(8)
-        el = np.array([self.params.auto_elevation])
-        fwd_dir = np.array([self.params.bearing])
-
-        def figure(r):
-            fwd = self._gain(freq_hz, fwd_dir, el, float(r))[0]
-            if self.params.auto_for == "rdf":
-                g = self._gain(freq_hz, grid.azimuth_rad, grid.elevation_rad, float(r))
-                return fwd / (np.dot(g, grid.solid_angle_sr) / (2 * np.pi))
-            return fwd / max(self._gain(freq_hz, fwd_dir + np.pi, el, float(r))[0], 1e-300)
-
-        values = [figure(r) for r in AUTO_TERMINATIONS_OHM]
-        i = int(np.argmax(values))
-        lo, hi = AUTO_TERMINATIONS_OHM[max(i - 1, 0)], AUTO_TERMINATIONS_OHM[min(i + 1, len(values) - 1)]
-        res = minimize_scalar(
-            lambda x: -figure(np.exp(x)), bounds=(np.log(lo), np.log(hi)), method="bounded", options={"xatol": 0.005}
+        """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation
+        (longwire.best_resistor: a coarse sweep, then a bounded search)."""
+        figure = termination_figure(
+            self.termination_pattern(freq_hz), self.params.bearing, self.params.auto_elevation, self.params.auto_for
         )
-        return float(np.exp(res.x)) if -res.fun >= values[i] else float(AUTO_TERMINATIONS_OHM[i])
+        return best_resistor(figure, AUTO_TERMINATIONS_OHM)
+
+    def termination_pattern(self, freq_hz: float):
+        """pattern(az, el, r): the power pattern with a termination r [ohm] (see longwire.termination_figure)."""
+        return lambda az, el, r: self._gain(freq_hz, az, el, float(r))
+
+    def matched_termination_ohm(self, freq_hz: float) -> float:
+        """|Z0| of the loop's line, sqrt(L / C) of the whole loop [ohm] (the resistor that would match it)."""
+        return float(abs(self.line(freq_hz).z0))
 
     def feed_point_impedance(self, freq_hz: float) -> complex:
         return self._feed_impedance(freq_hz, self.termination_ohm(freq_hz))
