@@ -141,3 +141,37 @@ def test_wire_and_build_sheet_agree(spec):
 def test_the_trades_rule_stays_available():
     ant = from_spec({"family": "beverage", "length": "140 m", "height": "2.5 m", "auto_for": "z0"})
     assert ant.termination_ohm(1.83e6) == pytest.approx(ant.matched_termination_ohm(1.83e6))
+
+
+def test_snr_termination_is_the_best_under_the_sky():
+    # auto_for = "snr": the resistor of the ranking's statistic (nominal median SNR gain over the target's hours)
+    # toward the target nearest the bearing, under the site's noise (pipeline.steer).  Checked against separate
+    # runs of the whole pipeline with the resistor fixed at 0.5x, 0.7x, 1.4x and 2x.
+    from snrgain.model import pipeline
+    from snrgain.scenario import load
+
+    text = (REPO / "scenarios" / "wren-corner.toml").read_text()
+    anchor = 'position = ["60 m", "90 m"]\n'
+    assert anchor in text
+
+    def run(extra):
+        sc = load(text.replace(anchor, anchor + extra, 1), base_dir=REPO / "scenarios")
+        sc2, _, _, per = pipeline.nominal(sc)
+        ant = next(a for a in sc2.candidates if a.name == "Beverage Europe")
+        res = next(r for r in per if r.name == "Beverage Europe")
+        return ant, res
+
+    ant, res = run('auto_for = "snr"\n')
+    assert ant.sky_termination is not None and ant.sky_termination["target"] == "Europe"
+    best = ant.params.termination
+    answer = res.build["termination_answer"]
+    assert answer["criterion"] == "snr" and answer["termination_ohm"] == pytest.approx(best)
+    assert res.build["termination_ohm"] == pytest.approx(best) and not res.build["termination_given"]
+    ti = 0  # Europe
+    got = res.snr_gain_nominal_db[ti]
+    for factor in (0.5, 0.7, 1.4, 2.0):
+        _, other = run(f"termination = {factor * best:.3f}\n")
+        assert got >= other.snr_gain_nominal_db[ti] - 0.2
+    # The answer's flatness figures are read off the same statistic.
+    _, at_07 = run(f"termination = {0.7 * best:.3f}\n")
+    assert got - at_07.snr_gain_nominal_db[ti] == pytest.approx(answer["loss_at_0p7_db"], abs=0.05)

@@ -112,7 +112,7 @@ class WireParams(WireSize, AntennaParams):
         return self
 
 
-AutoFor = Literal["rdf", "front_to_back", "z0"]
+AutoFor = Literal["rdf", "front_to_back", "z0", "snr"]
 AUTO_ELEVATION_RAD = np.radians(20.0)
 """The elevation toward which termination = "auto" rates resistors [rad] (the project's design elevation)."""
 RESISTOR_SWEEP_OHM = np.geomspace(30.0, 5000.0, 45)
@@ -155,13 +155,72 @@ def termination_figure(pattern, bearing_rad: float, elevation_rad: float, metric
     return figure
 
 
+SKY_SWEEP = np.geomspace(0.15, 3.0, 12)
+"""The resistors an "snr" termination tries under the sky, in units of |Z0| (then refined between neighbours)."""
+
+
+class SkyTermination:
+    """Terminated antennas whose ``termination = "auto"`` with ``auto_for = "snr"`` is chosen under the scenario's
+    own noise sky by the pipeline's steering stage (snrgain.model.steering), by the ranking's statistic toward the
+    target nearest the bearing; without a sky (``snrgain wire``, a lone antenna) "snr" falls back to "rdf".
+
+    The antenna set under the sky is a new one with the chosen resistor fixed, holding ``sky_termination``: the
+    criterion, the target, and the resistors tried with their statistic, which the build sheet reads."""
+
+    sky_order = 0
+    sky_termination: dict | None = None
+
+    @property
+    def uses_sky(self) -> bool:
+        return getattr(self.params, "termination", None) == "auto" and getattr(self.params, "auto_for", None) == "snr"
+
+    def termination_under_sky(self, freq_hz: float, score, target: str):
+        """The antenna with the resistor of highest ``score(variant)`` [dB] fixed: a sweep over SKY_SWEEP x |Z0|
+        and |Z0| itself, refined by a bounded search in log R between the best point's neighbours."""
+        from scipy.optimize import minimize_scalar
+
+        from snrgain.antennas.base import variant
+
+        matched = max(self.matched_termination_ohm(freq_hz), 1.0)
+        tried: dict[float, float] = {}
+
+        def value(r):
+            r = float(r)
+            if r not in tried:
+                tried[r] = float(score(variant(self, termination=r)))
+            return tried[r]
+
+        values = sorted({*(matched * SKY_SWEEP), matched})
+        scores = [value(r) for r in values]
+        i = int(np.argmax(scores))
+        lo, hi = values[max(i - 1, 0)], values[min(i + 1, len(values) - 1)]
+        minimize_scalar(
+            lambda x: -value(np.exp(x)),
+            bounds=(np.log(lo), np.log(hi)),
+            method="bounded",
+            options={"xatol": 0.02, "maxiter": 8},
+        )
+        best = max(tried, key=tried.get)
+        out = variant(self, termination=best)
+        rs = sorted(tried)
+        out.sky_termination = {
+            "criterion": "snr",
+            "target": target,
+            "values_ohm": rs,
+            "figure_db": [tried[r] for r in rs],
+            "matched_ohm": float(self.matched_termination_ohm(freq_hz)),
+        }
+        return out
+
+
 class BeverageParams(WireParams):
     family: Literal["beverage"]
     height: quantity("length", gt=0.05, le=30.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
     auto_for: AutoFor = "rdf"
-    """What termination = "auto" gives: the resistor of highest RDF or front-to-back along the wire at 20 deg,
-    or "z0", |Z0| less the far ground (the trade's rule for a flat SWR, common practice)."""
+    """What termination = "auto" gives: the resistor of highest RDF or front-to-back along the wire at 20 deg;
+    "z0", |Z0| less the far ground (the trade's rule for a flat SWR, common practice); or "snr", the resistor of
+    highest SNR gain (the ranking's statistic) toward the target nearest the bearing under the site's noise."""
     far_ground: GroundConnection = 20.0
 
 
@@ -379,7 +438,7 @@ def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, po
     return np.where(above_horizon(elevation_rad), scale * current, 0.0)
 
 
-class LongWire(TransformerFeed, Antenna):
+class LongWire(SkyTermination, TransformerFeed, Antenna):
     """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
     placeable = True
@@ -454,6 +513,7 @@ class LongWire(TransformerFeed, Antenna):
         how = getattr(self.params, "auto_for", "z0")
         if how == "z0":
             return matched
+        how = "rdf" if how == "snr" else how  # "snr" is chosen under the sky (SkyTermination); alone, best RDF
         key = (freq_hz, how)
         if key not in self._auto_term:
             figure = termination_figure(self.termination_pattern(freq_hz), self.bearing_rad, AUTO_ELEVATION_RAD, how)

@@ -69,6 +69,7 @@ import numpy as np
 
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
 from snrgain.antennas.longwire import (
+    SkyTermination,
     best_resistor,
     field_along_wire,
     line_currents,
@@ -94,8 +95,9 @@ class TerminatedLoopParams(WireSize, AntennaParams):
     """Height of the loop's lowest point above the ground [m]."""
     bearing: Bearing = 0.0
     termination: quantity("resistance", ge=0.0, le=20000.0) | Literal["auto"] = "auto"
-    auto_for: Literal["rdf", "front_to_back"] = "rdf"
-    """What termination = "auto" maximises, toward the bearing at auto_elevation."""
+    auto_for: Literal["rdf", "front_to_back", "snr"] = "rdf"
+    """What termination = "auto" maximises: RDF or front-to-back toward the bearing at auto_elevation, or the SNR
+    gain toward the target nearest the bearing under the site's noise (longwire.SkyTermination)."""
     auto_elevation: quantity("angle", ge=0.0, le=np.pi / 2) = np.radians(20.0)
     coax: Literal[50, 75] = 75
     turns_ratio: float | Literal["auto"] = "auto"
@@ -216,7 +218,7 @@ def loop_line(freq_hz: float, *, inductance_per_m: float, capacitance_per_m: flo
     TerminatedLoopParams,
     "small loop in a vertical plane with a termination resistor (rectangle, triangle, diamond)",
 )
-class TerminatedLoop(TransformerFeed, Antenna):
+class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
     """See the module docstring."""
 
     placeable = True
@@ -292,8 +294,9 @@ class TerminatedLoop(TransformerFeed, Antenna):
     def _best_termination(self, freq_hz: float) -> float:
         """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation
         (longwire.best_resistor: a coarse sweep, then a bounded search)."""
+        how = "rdf" if self.params.auto_for == "snr" else self.params.auto_for  # alone, "snr" falls back to RDF
         figure = termination_figure(
-            self.termination_pattern(freq_hz), self.params.bearing, self.params.auto_elevation, self.params.auto_for
+            self.termination_pattern(freq_hz), self.params.bearing, self.params.auto_elevation, how
         )
         return best_resistor(figure, AUTO_TERMINATIONS_OHM)
 

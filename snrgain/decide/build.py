@@ -76,7 +76,9 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             answer = wiredesign.termination_answer(antenna, freq_hz)
             if answer is not None:
                 out["termination_answer"] = answer.to_dict()
-                out["termination_given"] = getattr(antenna.params, "termination", "auto") != "auto"
+                out["termination_given"] = (
+                    getattr(antenna.params, "termination", "auto") != "auto" and antenna.sky_termination is None
+                )
             if hasattr(antenna, "far_rod_ohm"):
                 out["far_ground_ohm"] = float(antenna.far_rod_ohm)
     if hasattr(antenna, "feed_rod_ohm"):

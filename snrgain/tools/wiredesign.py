@@ -155,6 +155,11 @@ RESISTOR_CAUTION = (
     "practice; ground and disconnect the feed line when storms are near. Follow local codes."
 )
 
+RESISTOR_CAUTION_SHORT = (
+    "non-inductive, 2 W or more (static, a nearby transmitter); a gas discharge tube or bleed resistor to the ground "
+    "rod is common practice"
+)
+
 
 @dataclass(frozen=True)
 class TerminationAnswer:
@@ -192,6 +197,7 @@ class TerminationAnswer:
             "loss_at_0p7_db": self.loss_at_0p7_db,
             "loss_at_1p4_db": self.loss_at_1p4_db,
             "caution": RESISTOR_CAUTION,
+            "caution_short": RESISTOR_CAUTION_SHORT,
         }
 
 
@@ -207,7 +213,12 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
     pattern = antenna.termination_pattern(freq_hz)
     if pattern is None:
         return None
+    sky = antenna.sky_termination
+    if sky is not None and criterion in (None, "snr"):  # chosen under the site's noise (longwire.SkyTermination)
+        return _sky_answer(antenna, freq_hz, sky)
     criterion = criterion or getattr(antenna.params, "auto_for", "rdf")
+    if criterion == "snr":  # no sky here: the antenna alone is rated on RDF
+        criterion = "rdf"
     best = variant(antenna, termination="auto", auto_for=criterion).termination_ohm(freq_hz)
     matched = antenna.matched_termination_ohm(freq_hz)
     metric = "rdf" if criterion == "z0" else criterion  # |Z0| is rated on RDF
@@ -229,6 +240,31 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         at_best - db(standard),
         at_best - db(0.7 * best),
         at_best - db(1.4 * best),
+    )
+
+
+def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
+    """The answer of a resistor chosen under the sky: its statistic read off the resistors tried (interpolated in
+    log R for 0.7x, 1.4x and the E12 value)."""
+    from snrgain.decide.build import nearest_standard_ohm
+
+    rs, fig = np.log(sky["values_ohm"]), np.asarray(sky["figure_db"])
+    best = float(antenna.params.termination)
+
+    def db(r):
+        return float(np.interp(np.log(r), rs, fig))
+
+    top, standard = float(np.max(fig)), nearest_standard_ohm(best)
+    return TerminationAnswer(
+        "snr",
+        best,
+        standard,
+        sky["matched_ohm"],
+        top,
+        top - db(sky["matched_ohm"]),
+        top - db(standard),
+        top - db(0.7 * best),
+        top - db(1.4 * best),
     )
 
 
