@@ -63,6 +63,7 @@ toward the bearing at ``auto_elevation`` (20 deg).
 
 from __future__ import annotations
 
+import functools
 from typing import Literal
 
 import numpy as np
@@ -196,6 +197,12 @@ def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
     return inductance, float(c_diff), moment
 
 
+@functools.lru_cache(maxsize=256)
+def _loop_constants_cached(upper, lower, radius_m, image):
+    """:func:`loop_constants` kept per outline (a layout or sweep moves and turns the same loop many times)."""
+    return loop_constants(upper, lower, radius_m, image)
+
+
 def static_image_factor(ground, freq_hz: float) -> float:
     """The quasi-static image factor -(eps_c - 1) / (eps_c + 1) of a ground (real part; -1 perfect)."""
     if ground is None:
@@ -250,7 +257,8 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         image = static_image_factor(self.ground, freq_hz)
         key = round(image, 4)
         if key not in self._statics:
-            self._statics[key] = loop_constants(self.upper, self.lower, self.params.radius_m, image)
+            outline = (tuple(map(tuple, self.upper)), tuple(map(tuple, self.lower)))
+            self._statics[key] = _loop_constants_cached(*outline, float(self.params.radius_m), key)
         return self._statics[key]
 
     def electric_share(self, freq_hz: float) -> float:
