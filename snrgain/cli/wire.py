@@ -168,8 +168,7 @@ def wire(
                 f"to {hi:.0f} ohm: the line's loss absorbs what the far end reflects); |Z0| less the far ground "
                 f"({out['far_ground_ohm']:.0f} ohm) = {out['textbook_termination_ohm']:.0f} ohm"
             )
-        else:
-            lines_out += termination_lines(out)
+        lines_out += termination_lines(out)
     zin = out["feed_point_impedance_ohm"]
     exact = out["exact_turns_ratio"]
     lines_out += [
