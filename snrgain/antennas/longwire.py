@@ -217,7 +217,7 @@ class BeverageParams(WireParams):
     family: Literal["beverage"]
     height: quantity("length", gt=0.05, le=30.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
-    auto_for: AutoFor = "rdf"
+    auto_for: AutoFor = "snr"
     """What termination = "auto" gives: the resistor of highest RDF or front-to-back along the wire at 20 deg;
     "z0", |Z0| less the far ground (the trade's rule for a flat SWR, common practice); or "snr", the resistor of
     highest SNR gain (the ranking's statistic) toward the target nearest the bearing under the site's noise."""
@@ -255,7 +255,7 @@ class BogParams(WireParams):
     insulation_thickness: quantity("length", ge=1e-5, le=0.02) = 0.8e-3
     insulation_permittivity: float = Field(default=3.0, ge=1.0, le=20.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
-    auto_for: AutoFor = "rdf"
+    auto_for: AutoFor = "snr"
     """As for a Beverage."""
     far_ground: GroundConnection = 20.0
 

@@ -56,9 +56,10 @@ along the matched line, meets the near side's opposite EMF at the same
 instant and cancels it.  So the cardioid's null points toward the
 termination and its maximum toward the feed side: ``bearing`` is that
 favoured direction (termination opposite it).  Shorted, the loop becomes a
-figure-eight.  ``termination = "auto"`` picks the resistor of highest RDF
-(``auto_for = "rdf"``, the default) or front-to-back (``"front_to_back"``)
-toward the bearing at ``auto_elevation`` (20 deg).
+figure-eight.  ``termination = "auto"`` picks the resistor of highest SNR
+gain under the scenario's sky (``auto_for = "snr"``, the default; the RDF
+where there is no sky), of highest RDF (``"rdf"``) or front-to-back
+(``"front_to_back"``) toward the bearing at ``auto_elevation`` (20 deg).
 """
 
 from __future__ import annotations
@@ -96,7 +97,7 @@ class TerminatedLoopParams(WireSize, AntennaParams):
     """Height of the loop's lowest point above the ground [m]."""
     bearing: Bearing = 0.0
     termination: quantity("resistance", ge=0.0, le=20000.0) | Literal["auto"] = "auto"
-    auto_for: Literal["rdf", "front_to_back", "snr"] = "rdf"
+    auto_for: Literal["rdf", "front_to_back", "snr"] = "snr"
     """What termination = "auto" maximises: RDF or front-to-back toward the bearing at auto_elevation, or the SNR
     gain toward the target nearest the bearing under the site's noise (longwire.SkyTermination)."""
     auto_elevation: quantity("angle", ge=0.0, le=np.pi / 2) = np.radians(20.0)

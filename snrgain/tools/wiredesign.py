@@ -261,7 +261,7 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         standard,
         sky["matched_ohm"],
         top,
-        top - db(sky["matched_ohm"]),
+        top - db(max(sky["matched_ohm"], sky["values_ohm"][0])),  # |Z0| less the rod may be 0: the lowest tried
         top - db(standard),
         top - db(0.7 * best),
         top - db(1.4 * best),
