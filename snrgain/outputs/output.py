@@ -276,7 +276,11 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")
             ans = b.get("termination_answer")
             if ans:  # the one answer (wiredesign.termination_answer), as `snrgain wire` prints it
-                crit = {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "|Z0|"}[ans["criterion"]]
+                crit = {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "|Z0|", "snr": "SNR gain"}[
+                    ans["criterion"]
+                ]
+                if ans.get("target"):
+                    crit += f" toward {ans['target']}"
                 bits.append(
                     f"{'you gave it; ' if b.get('termination_given') else ''}best {crit} at "
                     f"{ans['termination_ohm']:.0f} ohm, {ans['over_matched_db']:.2f} dB over |Z0| "

@@ -184,6 +184,8 @@ class TerminationAnswer:
     """What 0.7 x the best loses [dB]: how flat the optimum is below it."""
     loss_at_1p4_db: float
     """What 1.4 x the best loses [dB]."""
+    target: str | None = None
+    """The target the statistic is taken toward ("snr")."""
 
     def to_dict(self) -> dict:
         return {
@@ -198,6 +200,7 @@ class TerminationAnswer:
             "loss_at_1p4_db": self.loss_at_1p4_db,
             "caution": RESISTOR_CAUTION,
             "caution_short": RESISTOR_CAUTION_SHORT,
+            "target": self.target,
         }
 
 
@@ -265,6 +268,7 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         top - db(standard),
         top - db(0.7 * best),
         top - db(1.4 * best),
+        sky["target"],
     )
 
 
