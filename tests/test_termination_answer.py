@@ -175,3 +175,23 @@ def test_snr_termination_is_the_best_under_the_sky():
     # The answer's flatness figures are read off the same statistic.
     _, at_07 = run(f"termination = {0.7 * best:.3f}\n")
     assert got - at_07.snr_gain_nominal_db[ti] == pytest.approx(answer["loss_at_0p7_db"], abs=0.05)
+
+
+def test_rank_build_and_the_report_print_the_answer():
+    # One resistor in words: rank --build's build lines and the report's build sheet come from the same sheet, and
+    # the wire command's answer for the same antenna and criterion is that resistor.
+    import html
+
+    import snrgain
+    from snrgain.outputs.output import build_lines
+    from snrgain.outputs.report import render
+
+    r = snrgain.evaluate(REPO / "scenarios" / "marrow-fen.toml")
+    lines = dict(build_lines(r))
+    page = html.unescape(render(r))
+    flag = r.antenna("flag toward north-west")
+    ohm = flag.build["termination_answer"]["termination_ohm"]
+    assert flag.build["termination_ohm"] == pytest.approx(ohm)
+    assert f"termination {ohm:.0f} ohm" in lines[flag.name] and f"termination {ohm:.0f} ohm" in page
+    assert f"over |Z0| {flag.build['termination_answer']['matched_ohm']:.0f} ohm" in page
+    assert "gas discharge tube" in lines[flag.name]
