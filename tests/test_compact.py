@@ -33,12 +33,9 @@ def _figures(ant, f, forward_deg):
 def test_terminated_loop_against_nec2(case):
     # Reference: NEC-2 (nec2c), Sommerfeld ground, decks in tests/nec/cases.  NEC's forward is phi = 180 deg,
     # the side opposite the termination; the model's loop is given bearing 180 deg to match.
-    # Tolerances: the README's claims, the measured worst cases (formerly RDF 1 dB, gain 2 dB, F/B 3.5 dB, looser than
-    # the README): RDF within 0.4 dB and gain within 1.7 dB in every case (measured 0.04-0.34 dB and 0.56-1.51 dB).
-    # Front-to-back within 3.1 dB where it lies below 20 dB in both (measured: 1.5, 3.06, 2.8 dB off at 300, 500,
-    # 2000 ohm); near the termination of deepest
-    # null one model or both put the rear 20-40 dB down, where its exact depth turns on details neither
-    # resolves (the loop's capacitance, its coupling to the ground), so there the check is that both exceed 15 dB.
+    # Tolerances: the measured worst cases with the loop's own line constants and charge moment (termloop's
+    # docstring): RDF 0.01 dB, gain 0.08 dB, front-to-back 0.5 dB, feed impedance 2 % (the two-wire line of the
+    # spacing read RDF 0.34 dB, gain 1.5 dB and front-to-back 3.1 dB off, the deepest null near 1,100 ohm).
     ant = from_spec(
         {
             "family": "terminated-loop",
@@ -52,15 +49,11 @@ def test_terminated_loop_against_nec2(case):
         }
     )
     got = _figures(ant, case["freq_mhz"] * 1e6, 180.0)
-    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.4)
-    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=1.7)
-    if case["front_to_back_db"] < 20 and got["front_to_back_db"] < 20:
-        assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=3.1)
-    else:  # a deep null in either model: the terminations of deepest null differ (about 800 vs 1000-1300 ohm)
-        assert got["front_to_back_db"] > 15 and case["front_to_back_db"] > 15
-    # The feed impedance within 30 % of NEC's (measured: 1-28 %; furthest where the termination is mismatched).
+    assert got["rdf_db"] == pytest.approx(case["rdf_db"], abs=0.1)
+    assert got["forward_gain_dbi"] == pytest.approx(case["forward_gain_dbi"], abs=0.3)
+    assert got["front_to_back_db"] == pytest.approx(case["front_to_back_db"], abs=1.0)
     z_nec = complex(*case["feed_impedance_ohm"])
-    assert abs(ant.feed_point_impedance(case["freq_mhz"] * 1e6) - z_nec) < 0.30 * abs(z_nec)
+    assert abs(ant.feed_point_impedance(case["freq_mhz"] * 1e6) - z_nec) < 0.04 * abs(z_nec)
 
 
 @pytest.mark.parametrize("case", REF["pairs"], ids=[c["name"] for c in REF["pairs"]])
@@ -187,8 +180,11 @@ def test_terminated_loop_cardioid_and_figure_eight():
     assert fb > 15 and 500 < auto.termination_ohm(F) < 2500  # common practice: flags want about 1 kohm
     shorted = from_spec({**base, "termination": 0.0})
     assert abs(shorted.gain_dbi(F, 45, 20) - shorted.gain_dbi(F, 225, 20)) < 0.5
-    gv, _ = shorted.partial_gains_dbi(F, [45.0, 135.0], [5.0, 5.0])
-    assert gv[1] < gv[0] - 12  # the side null (vertical polarization), filled to about -16 dB by the line transit
+    gv, _ = shorted.partial_gains_dbi(F, [45.0, 135.0], [4.0, 4.0])
+    # The side null (vertical polarization) is filled by the loop's electric response: NEC-2 (nec2c, the deck of
+    # tests/nec/make_termloops.polygon_deck, 8.5 x 4.3 m flag 1.5 m up over 13 / 5 mS/m, shorted) puts it 10.46 dB
+    # under the end-on gain at 4 deg elevation (the model 10.45 dB).
+    assert 9.5 < gv[0] - gv[1] < 11.5
 
 
 def test_array_bad_input():

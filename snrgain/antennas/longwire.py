@@ -112,10 +112,115 @@ class WireParams(WireSize, AntennaParams):
         return self
 
 
+AutoFor = Literal["rdf", "front_to_back", "z0", "snr"]
+AUTO_ELEVATION_RAD = np.radians(20.0)
+"""The elevation toward which termination = "auto" rates resistors [rad] (the project's design elevation)."""
+RESISTOR_SWEEP_OHM = np.geomspace(30.0, 5000.0, 45)
+"""The coarse sweep of a best-resistor search [ohm] (12 % steps, then refined)."""
+
+
+def best_resistor(figure, values_ohm=RESISTOR_SWEEP_OHM) -> float:
+    """The resistor [ohm] that maximises ``figure(r)``: the best of a coarse sweep, refined by a bounded search in
+    log R between its neighbours (to about 0.5 %)."""
+    from scipy.optimize import minimize_scalar
+
+    values = [float(figure(r)) for r in values_ohm]
+    i = int(np.argmax(values))
+    lo, hi = values_ohm[max(i - 1, 0)], values_ohm[min(i + 1, len(values_ohm) - 1)]
+    res = minimize_scalar(
+        lambda x: -figure(np.exp(x)), bounds=(np.log(lo), np.log(hi)), method="bounded", options={"xatol": 0.005}
+    )
+    return float(np.exp(res.x)) if -res.fun >= values[i] else float(values_ohm[i])
+
+
+def termination_figure(pattern, bearing_rad: float, elevation_rad: float, metric: str):
+    """figure(r) for :func:`best_resistor`: RDF (gain toward the bearing over the mean over the whole sphere, 0
+    below the horizon: the trade's scale, snrgain.model.snr; on a coarse HEALPix grid) or front-to-back at
+    ``elevation_rad``, from ``pattern(az, el, r)``, a power pattern of any scale (one port: the feed load does not
+    change its shape)."""
+    from noisemodels.sphere import upper_hemisphere
+
+    grid = upper_hemisphere(8)
+    el = np.array([elevation_rad])
+    fwd = np.array([bearing_rad])
+
+    def figure(r):
+        f = pattern(fwd, el, float(r))[0]
+        if metric == "rdf":
+            return f / (
+                np.dot(pattern(grid.azimuth_rad, grid.elevation_rad, float(r)), grid.solid_angle_sr) / (4 * np.pi)
+            )
+        return f / max(pattern(fwd + np.pi, el, float(r))[0], 1e-300)
+
+    return figure
+
+
+SKY_SWEEP = np.geomspace(0.15, 3.0, 12)
+"""The resistors an "snr" termination tries under the sky, in units of |Z0| (then refined between neighbours)."""
+
+
+class SkyTermination:
+    """Terminated antennas whose ``termination = "auto"`` with ``auto_for = "snr"`` is chosen under the scenario's
+    own noise sky by the pipeline's steering stage (snrgain.model.steering), by the ranking's statistic toward the
+    target nearest the bearing; without a sky (``snrgain wire``, a lone antenna) "snr" falls back to "rdf".
+
+    The antenna set under the sky is a new one with the chosen resistor fixed, holding ``sky_termination``: the
+    criterion, the target, and the resistors tried with their statistic, which the build sheet reads."""
+
+    sky_order = 0
+    sky_termination: dict | None = None
+
+    @property
+    def uses_sky(self) -> bool:
+        return getattr(self.params, "termination", None) == "auto" and getattr(self.params, "auto_for", None) == "snr"
+
+    def termination_under_sky(self, freq_hz: float, score, target: str):
+        """The antenna with the resistor of highest ``score(variant)`` [dB] fixed: a sweep over SKY_SWEEP x |Z0|
+        and |Z0| itself, refined by a bounded search in log R between the best point's neighbours."""
+        from scipy.optimize import minimize_scalar
+
+        from snrgain.antennas.base import variant
+
+        matched = max(self.matched_termination_ohm(freq_hz), 1.0)
+        tried: dict[float, float] = {}
+
+        def value(r):
+            r = float(r)
+            if r not in tried:
+                tried[r] = float(score(variant(self, termination=r)))
+            return tried[r]
+
+        values = sorted({*(matched * SKY_SWEEP), matched})
+        scores = [value(r) for r in values]
+        i = int(np.argmax(scores))
+        lo, hi = values[max(i - 1, 0)], values[min(i + 1, len(values) - 1)]
+        minimize_scalar(
+            lambda x: -value(np.exp(x)),
+            bounds=(np.log(lo), np.log(hi)),
+            method="bounded",
+            options={"xatol": 0.02, "maxiter": 8},
+        )
+        best = max(tried, key=tried.get)
+        out = variant(self, termination=best)
+        rs = sorted(tried)
+        out.sky_termination = {
+            "criterion": "snr",
+            "target": target,
+            "values_ohm": rs,
+            "figure_db": [tried[r] for r in rs],
+            "matched_ohm": float(self.matched_termination_ohm(freq_hz)),
+        }
+        return out
+
+
 class BeverageParams(WireParams):
     family: Literal["beverage"]
     height: quantity("length", gt=0.05, le=30.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
+    auto_for: AutoFor = "snr"
+    """What termination = "auto" gives: the resistor of highest RDF or front-to-back along the wire at 20 deg;
+    "z0", |Z0| less the far ground (the trade's rule for a flat SWR, common practice); or "snr", the resistor of
+    highest SNR gain (the ranking's statistic) toward the target nearest the bearing under the site's noise."""
     far_ground: GroundConnection = 20.0
 
 
@@ -150,6 +255,8 @@ class BogParams(WireParams):
     insulation_thickness: quantity("length", ge=1e-5, le=0.02) = 0.8e-3
     insulation_permittivity: float = Field(default=3.0, ge=1.0, le=20.0)
     termination: quantity("resistance", ge=0.0, le=5000.0) | Literal["auto"] = "auto"
+    auto_for: AutoFor = "snr"
+    """As for a Beverage."""
     far_ground: GroundConnection = 20.0
 
     @model_validator(mode="after")
@@ -331,7 +438,7 @@ def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, po
     return np.where(above_horizon(elevation_rad), scale * current, 0.0)
 
 
-class LongWire(TransformerFeed, Antenna):
+class LongWire(SkyTermination, TransformerFeed, Antenna):
     """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
     placeable = True
@@ -347,6 +454,7 @@ class LongWire(TransformerFeed, Antenna):
         self.length_m = params.length
         self.bearing_rad = params.bearing
         self._cache: dict[float, lines.LineConstants] = {}
+        self._auto_term: dict[tuple, float] = {}
 
     # -- the line and its loads --------------------------------------------------------
     def _connection_ohm(self, value) -> float:
@@ -399,9 +507,37 @@ class LongWire(TransformerFeed, Antenna):
         if not self.terminated:
             return None
         t = self.params.termination
-        if t == "auto":
-            return max(abs(self.line(freq_hz).z0) - self.far_rod_ohm, 0.0)
-        return float(t)
+        if t != "auto":
+            return float(t)
+        matched = max(abs(self.line(freq_hz).z0) - self.far_rod_ohm, 0.0)
+        how = getattr(self.params, "auto_for", "z0")
+        if how == "z0":
+            return matched
+        how = "rdf" if how == "snr" else how  # "snr" is chosen under the sky (SkyTermination); alone, best RDF
+        key = (freq_hz, how)
+        if key not in self._auto_term:
+            figure = termination_figure(self.termination_pattern(freq_hz), self.bearing_rad, AUTO_ELEVATION_RAD, how)
+            self._auto_term[key] = best_resistor(figure)
+        return self._auto_term[key]
+
+    def termination_pattern(self, freq_hz: float):
+        """pattern(az, el, r): the power pattern (any scale) with a far-end resistor r [ohm] (the feed load fixed:
+        one port, its shape does not depend on it); None for an unterminated wire."""
+        if not self.terminated:
+            return None
+        z_feed = abs(self.line(freq_hz).z0) + self.feed_rod_ohm
+
+        def pattern(az, el, r):
+            (iv, ih), _ = self._feed_currents(freq_hz, az, el, z_feed, r + self.far_rod_ohm)
+            return np.where(above_horizon(el), _power(iv) + _power(ih), 0.0)
+
+        return pattern
+
+    def matched_termination_ohm(self, freq_hz: float) -> float | None:
+        """|Z0| less the far ground rod [ohm]: the resistor that matches the line (None if open)."""
+        if not self.terminated:
+            return None
+        return max(abs(self.line(freq_hz).z0) - self.far_rod_ohm, 0.0)
 
     def far_load_ohm(self, freq_hz: float):
         t = self.termination_ohm(freq_hz)
@@ -424,6 +560,23 @@ class LongWire(TransformerFeed, Antenna):
             )
 
     # -- the response ---------------------------------------------------------------
+    def _feed_currents(self, freq_hz, azimuth_rad, elevation_rad, z_feed, z_far):
+        """Feed currents (vertical, horizontal) with given end loads, and the wave (a termination search's)."""
+        w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.bearing_rad, ground=self.ground)
+        f_v, f_h = field_along_wire(w, self.wire_height_m())
+        lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
+        i_f, _ = line_currents(
+            w,
+            line=self.line(freq_hz),
+            length_m=self.length_m,
+            z_feed=z_feed,
+            z_far=z_far,
+            drive_v=-w.cos_dphi * f_v[w.inv],
+            drive_h=-w.sin_dphi * f_h[w.inv],
+            v_end=lead,
+        )
+        return i_f, w
+
     def currents(self, freq_hz, azimuth_rad, elevation_rad, *, far_current: bool = False):
         """Feed and far-end currents [A] per unit incident field: {"v": (I_F, I_R), "h": (I_F, I_R)}, and the wave."""
         w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.bearing_rad, ground=self.ground)

@@ -1,51 +1,88 @@
-"""Small terminated loops in a vertical plane: rectangles, triangles, diamonds, with a resistor opposite the feed.
+"""Small terminated loops in a vertical plane: flag, pennant, delta, diamond, with a resistor opposite the feed.
 
 Model (snrgain's own)
 ---------------------
-The loop's top and bottom wires form a short balanced two-wire line of
-length w (the loop's width, from the feed side to the terminated side) and
-spacing s; its vertical sides close the line at both
-ends.  This is the same structure as a terminated long wire over ground
-(snrgain.antennas.longwire), with the ground replaced by the bottom wire, so
-the same closed-form line solution serves:
+The loop is cut in two at the feed and at the termination: an upper and a
+lower conductor, which form a short balanced line of length w (the loop's
+width, from the feed side to the terminated side) closed at both ends by the
+feed and the resistor.  This is the structure of a terminated long wire over
+ground (snrgain.antennas.longwire) with the ground replaced by the lower
+half, so the same closed-form line solution serves:
 
-- line: Z0 = 120 acosh(s / 2a) (two-wire line in air), gamma = alpha + j k,
-  alpha = Re(Z_int) / Z0 (both conductors' skin-effect loss);
+- line constants from the loop's own geometry, not from a two-wire line of
+  its spacing: the series inductance is the whole loop's (Neumann's formula
+  over the polygon, thin wire; for a rectangle it equals Grover's closed form,
+  F. W. Grover, Inductance Calculations, 1946), the shunt capacitance the
+  differential capacitance between the two halves, sides included, over the
+  ground's quasi-static image (a thin-wire moment solution of the
+  electrostatic problem); both spread over the width.  The sides carry a
+  third of the inductance and a third of the capacitance of a flag, which a
+  two-wire line of the loop's spacing leaves out;
+- the series resistance is the whole loop's skin-effect loss spread over the
+  width;
 - distributed source: the difference of the fields along the top and bottom
-  wires at their heights (incident plus Fresnel-reflected, both
-  polarizations), E_x(z_top) - E_x(z_bottom);
-- end sources: the EMF of each vertical side, the integral of E_z from the
-  bottom wire to the top wire (the trade's "electric" response of the loop);
-  their difference with the distributed source is Faraday's law, the
-  loop's magnetic response;
+  of the rectangle of the same width and area, centred at the polygon's
+  centroid (incident plus Fresnel-reflected, both polarizations);
+- end sources: the EMF of each side, the integral of E_z from the bottom to
+  the top of that rectangle.  Their difference with the distributed source is
+  Faraday's law (the magnetic response); their common part, the electric
+  response, drives the charge the two halves hold, whose moment lies lower
+  than the rectangle's spacing (the sides hold part of it): that part is
+  scaled by the height of the charge moment over the spacing (about 0.8 for a
+  flag);
 - loads: the feed (transformer to the coax) at one side, the termination at
   the other.
 
-With the termination near Z0 the vertical sides' EMFs dominate: a wave from
+With these three terms the feed impedance, forward gain, RDF and
+front-to-back agree with NEC-2 (tests/nec/termloops.json); the two-wire line
+of the spacing read the gain 1-1.5 dB low and put the deepest null near
+1,100 ohm where NEC puts it near 800 ohm.
+
+The shapes (``width`` along the bearing, ``loop_height`` from the lowest to
+the highest point, the lowest point at ``height``):
+
+- rectangle (flag): fed in the middle of one vertical side, terminated in the
+  middle of the other;
+- triangle (pennant): a vertical side fed in its middle, the apex opposite at
+  mid height, terminated there;
+- delta: a horizontal base, the apex above its middle; fed at one base corner,
+  terminated at the other;
+- diamond: vertices at mid height at both ends (fed at one, terminated at the
+  other), the top and bottom vertices in the middle.
+
+With the termination near the line's Z0 the sides' EMFs dominate: a wave from
 the terminated side reaches the far side first, and its EMF, carried back
 along the matched line, meets the near side's opposite EMF at the same
 instant and cancels it.  So the cardioid's null points toward the
 termination and its maximum toward the feed side: ``bearing`` is that
 favoured direction (termination opposite it).  Shorted, the loop becomes a
-figure-eight.  A
-triangle or diamond is taken as the rectangle of the same width and area
-centred at the same height (an approximation for the narrow ends).
-``termination = "auto"`` picks the resistor of highest RDF (``auto_for =
-"rdf"``, the default) or front-to-back (``"front_to_back"``) toward the
-bearing at ``auto_elevation`` (20 deg).  Checked against NEC-2 (tests/nec/).
+figure-eight.  ``termination = "auto"`` picks the resistor of highest SNR
+gain under the scenario's sky (``auto_for = "snr"``, the default; the RDF
+where there is no sky), of highest RDF (``"rdf"``) or front-to-back
+(``"front_to_back"``) toward the bearing at ``auto_elevation`` (20 deg).
 """
 
 from __future__ import annotations
 
+import functools
 from typing import Literal
 
 import numpy as np
 
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
-from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, port_response, vertical_emf
+from snrgain.antennas.longwire import (
+    SkyTermination,
+    best_resistor,
+    field_along_wire,
+    line_currents,
+    plane_wave,
+    port_response,
+    termination_figure,
+    vertical_emf,
+)
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
-from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
 
 AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 """Resistors tried by termination = "auto" [ohm]."""
@@ -53,28 +90,135 @@ AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 
 class TerminatedLoopParams(WireSize, AntennaParams):
     family: Literal["terminated-loop"]
-    shape: Literal["rectangle", "triangle", "diamond"] = "rectangle"
+    shape: Literal["rectangle", "triangle", "delta", "diamond"] = "rectangle"
     width: quantity("length", ge=0.05, le=60.0)
     loop_height: quantity("length", ge=0.05, le=30.0)
     height: quantity("length", ge=0.0, le=30.0) = 1.0
     """Height of the loop's lowest point above the ground [m]."""
     bearing: Bearing = 0.0
     termination: quantity("resistance", ge=0.0, le=20000.0) | Literal["auto"] = "auto"
-    auto_for: Literal["rdf", "front_to_back"] = "rdf"
-    """What termination = "auto" maximises, toward the bearing at auto_elevation."""
+    auto_for: Literal["rdf", "front_to_back", "snr"] = "snr"
+    """What termination = "auto" maximises: RDF or front-to-back toward the bearing at auto_elevation, or the SNR
+    gain toward the target nearest the bearing under the site's noise (longwire.SkyTermination)."""
     auto_elevation: quantity("angle", ge=0.0, le=np.pi / 2) = np.radians(20.0)
     coax: Literal[50, 75] = 75
     turns_ratio: float | Literal["auto"] = "auto"
     ground: GroundField | None = None
 
 
-def loop_line(freq_hz: float, *, radius_m: float, spacing_m: float) -> lines.LineConstants:
-    """The loop's top and bottom wires as a two-wire line in air: Z0 = 120 acosh(s / 2a), alpha = Re(Z_int) / Z0."""
-    z0 = 120.0 * np.arccosh(spacing_m / (2 * radius_m))
-    k = 2 * np.pi * freq_hz / C_M_PER_S
-    alpha = np.real(lines.wire_internal_impedance(freq_hz, radius_m)) / z0
-    gamma = complex(alpha, k)
-    return lines.LineConstants(float(freq_hz), gamma * z0, gamma / z0, gamma, complex(z0))
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(8)
+FEED_GAP_M = 0.02
+"""Half the gap at the feed and at the termination where the loop's two halves part [m] (the constants barely
+depend on it: 0.01 or 0.1 m move the capacitance by under 2 %)."""
+_SEGMENTS = 400
+"""Segments over the whole loop for the static solutions (about 5 cm on a flag)."""
+
+
+def loop_polygon(shape: str, width_m: float, loop_height_m: float, bottom_m: float):
+    """The loop's outline as (upper, lower) paths in the (x, z) plane, each from the feed (x = 0) to the
+    termination (x = width): the two halves of the loop.  See the module docstring for the shapes."""
+    w, z1, z2 = width_m, bottom_m, bottom_m + loop_height_m
+    zm = 0.5 * (z1 + z2)
+    if shape == "rectangle":
+        return [(0, zm), (0, z2), (w, z2), (w, zm)], [(0, zm), (0, z1), (w, z1), (w, zm)]
+    if shape == "triangle":
+        return [(0, zm), (0, z2), (w, zm)], [(0, zm), (0, z1), (w, zm)]
+    if shape == "delta":
+        return [(0, z1), (0.5 * w, z2), (w, z1)], [(0, z1), (w, z1)]
+    if shape == "diamond":
+        return [(0, zm), (0.5 * w, z2), (w, zm)], [(0, zm), (0.5 * w, z1), (w, zm)]
+    raise ValueError(f"shape: one of rectangle, triangle, delta, diamond; got {shape!r}")
+
+
+def _segments(path, step_m: float, gap_m: float = 0.0):
+    """Centres, vectors and lengths of segments of at most ``step_m`` along a polyline, less ``gap_m`` at
+    both ends."""
+    pts = np.asarray(path, dtype=float)
+    d = np.diff(pts, axis=0)
+    seg_len = np.hypot(d[:, 0], d[:, 1])
+    total = seg_len.sum()
+    n = max(4, int(np.ceil((total - 2 * gap_m) / step_m)))
+    s = np.linspace(gap_m, total - gap_m, n + 1)
+    cum = np.concatenate([[0.0], np.cumsum(seg_len)])
+
+    def at(v):
+        i = np.clip(np.searchsorted(cum, v, side="right") - 1, 0, len(seg_len) - 1)
+        return pts[i] + d[i] * ((v - cum[i]) / seg_len[i])[:, None]
+
+    # split at the corners so every segment is straight
+    s = np.unique(np.concatenate([s, cum[(cum > gap_m) & (cum < total - gap_m)]]))
+    a, b = at(s[:-1]), at(s[1:])
+    keep = np.hypot(*(b - a).T) > 1e-9
+    a, b = a[keep], b[keep]
+    return 0.5 * (a + b), b - a, np.hypot(*(b - a).T)
+
+
+def _mean_inverse_distance(centres, vectors, radius_m, sources=None):
+    """Mean over each source segment of 1 / distance from each centre (thin wire: the radius added in
+    quadrature), by 8-point Gauss-Legendre; the exact mean on each segment's own centre."""
+    src_c, src_v = (centres, vectors) if sources is None else sources
+    pts = src_c[None, :, None, :] + (0.5 * _GL_X)[None, None, :, None] * src_v[None, :, None, :]
+    r = np.sqrt(np.sum((centres[:, None, None, :] - pts) ** 2, axis=-1) + radius_m**2)
+    return np.sum((0.5 * _GL_W) / r, axis=-1)
+
+
+def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
+    """(L, C, h): the loop's inductance [H] (Neumann's formula), the differential capacitance between its two
+    halves [F] and the height of their charge moment [m], over a ground whose static image has the factor
+    ``image`` (-1 a perfect conductor).  Thin-wire moment solution: uniform charge (current) on each segment,
+    potential matched at the centres (on the wire's surface)."""
+    perimeter = sum(float(np.sum(np.hypot(*np.diff(np.asarray(p, float), axis=0).T))) for p in (upper, lower))
+    step = perimeter / _SEGMENTS
+    cu, vu, lu = _segments(upper, step, FEED_GAP_M)
+    cl, vl, ll = _segments(lower, step, FEED_GAP_M)
+    c, v, lengths = np.vstack([cu, cl]), np.vstack([vu, vl]), np.concatenate([lu, ll])
+    n, nu = len(lengths), len(lu)
+    idx = np.arange(n)
+    own = 2 * np.arcsinh(lengths / (2 * radius_m)) / lengths  # exact mean of 1/r over a segment, at its centre
+    p = _mean_inverse_distance(c, v, radius_m)
+    p[idx, idx] = own
+    p = p + image * _mean_inverse_distance(c, v, radius_m, (c * [1.0, -1.0], v * [1.0, -1.0]))
+    p /= 4 * np.pi * EPS0_F_PER_M
+    unit = np.zeros((n, 2))
+    unit[:nu, 0] = 1.0
+    unit[nu:, 1] = 1.0
+    q = np.linalg.solve(p, unit)  # charges for unit potential on each half
+    cap = np.array([[q[:nu, 0].sum(), q[:nu, 1].sum()], [q[nu:, 0].sum(), q[nu:, 1].sum()]])
+    pm = np.linalg.inv(cap)
+    c_diff = 1.0 / (pm[0, 0] + pm[1, 1] - pm[0, 1] - pm[1, 0])
+    charge = q @ np.linalg.solve(cap, [1.0, -1.0])  # +1 C on the upper half, -1 C on the lower
+    moment = float(np.sum(charge * c[:, 1]))
+    # Neumann: the closed loop, upper path out and lower path back
+    loop_c = np.vstack([cu, cl[::-1]])
+    loop_v = np.vstack([vu, -vl[::-1]])
+    loop_l = np.concatenate([lu, ll[::-1]])
+    m = _mean_inverse_distance(loop_c, loop_v, radius_m) * np.einsum("ik,jk->ij", loop_v, loop_v)
+    m[idx, idx] = 2 * np.arcsinh(loop_l / (2 * radius_m)) * loop_l
+    inductance = MU0_H_PER_M / (4 * np.pi) * float(m.sum())
+    return inductance, float(c_diff), moment
+
+
+@functools.lru_cache(maxsize=256)
+def _loop_constants_cached(upper, lower, radius_m, image):
+    """:func:`loop_constants` kept per outline (a layout or sweep moves and turns the same loop many times)."""
+    return loop_constants(upper, lower, radius_m, image)
+
+
+def static_image_factor(ground, freq_hz: float) -> float:
+    """The quasi-static image factor -(eps_c - 1) / (eps_c + 1) of a ground (real part; -1 perfect)."""
+    if ground is None:
+        return -1.0
+    eps = ground.complex_permittivity(freq_hz)
+    return float(-np.real((eps - 1) / (eps + 1)))
+
+
+def loop_line(freq_hz: float, *, inductance_per_m: float, capacitance_per_m: float, resistance_per_m: float):
+    """The loop's two halves as a line: Z' = R' + j w L', Y' = j w C' (per metre of width)."""
+    omega = 2 * np.pi * freq_hz
+    z = complex(resistance_per_m, omega * inductance_per_m)
+    y = complex(0.0, omega * capacitance_per_m)
+    gamma = np.sqrt(z * y)
+    return lines.LineConstants(float(freq_hz), z, y, complex(gamma), complex(np.sqrt(z / y)))
 
 
 @register(
@@ -82,7 +226,7 @@ def loop_line(freq_hz: float, *, radius_m: float, spacing_m: float) -> lines.Lin
     TerminatedLoopParams,
     "small loop in a vertical plane with a termination resistor (rectangle, triangle, diamond)",
 )
-class TerminatedLoop(TransformerFeed, Antenna):
+class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
     """See the module docstring."""
 
     placeable = True
@@ -91,15 +235,36 @@ class TerminatedLoop(TransformerFeed, Antenna):
         super().__init__(params)
         self.ground = make_ground(params.ground)
         self.width_m = params.width
-        area = params.width * params.loop_height * (1.0 if params.shape == "rectangle" else 0.5)
+        self.upper, self.lower = loop_polygon(params.shape, params.width, params.loop_height, params.height)
+        outline = np.asarray(self.upper + self.lower[::-1][1:-1], dtype=float)
+        x, z = outline[:, 0], outline[:, 1]
+        cross = x * np.roll(z, -1) - np.roll(x, -1) * z
+        area = 0.5 * abs(cross.sum())
+        centroid = float(np.sum((z + np.roll(z, -1)) * cross) / (6 * 0.5 * cross.sum()))
+        self.area_m2 = area
+        self.perimeter_m = float(np.sum(np.hypot(np.diff(x, append=x[0]), np.diff(z, append=z[0]))))
         self.spacing_m = area / params.width
-        center = params.height + params.loop_height / 2
-        self.z_bottom = center - self.spacing_m / 2
-        self.z_top = center + self.spacing_m / 2
+        self.z_bottom = centroid - self.spacing_m / 2
+        self.z_top = centroid + self.spacing_m / 2
         if self.spacing_m <= 4 * params.radius_m:
             raise ValueError("loop_height: the loop is too flat for its wire")
         self._lines: dict[float, lines.LineConstants] = {}
+        self._statics: dict[float, tuple[float, float, float]] = {}
         self._auto_term: dict[float, float] = {}
+
+    def statics(self, freq_hz: float) -> tuple[float, float, float]:
+        """(L, C, h): inductance [H], differential capacitance [F] and charge-moment height [m] of the loop over
+        its ground at a frequency (:func:`loop_constants`)."""
+        image = static_image_factor(self.ground, freq_hz)
+        key = round(image, 4)
+        if key not in self._statics:
+            outline = (tuple(map(tuple, self.upper)), tuple(map(tuple, self.lower)))
+            self._statics[key] = _loop_constants_cached(*outline, float(self.params.radius_m), key)
+        return self._statics[key]
+
+    def electric_share(self, freq_hz: float) -> float:
+        """The height of the charge moment over the equivalent rectangle's spacing [-] (module docstring)."""
+        return self.statics(freq_hz)[2] / self.spacing_m
 
     @property
     def line_bearing_rad(self) -> float:
@@ -116,7 +281,14 @@ class TerminatedLoop(TransformerFeed, Antenna):
 
     def line(self, freq_hz: float) -> lines.LineConstants:
         if freq_hz not in self._lines:
-            self._lines[freq_hz] = loop_line(freq_hz, radius_m=self.params.radius_m, spacing_m=self.spacing_m)
+            inductance, capacitance, _ = self.statics(freq_hz)
+            skin = np.real(lines.wire_internal_impedance(freq_hz, self.params.radius_m))
+            self._lines[freq_hz] = loop_line(
+                freq_hz,
+                inductance_per_m=inductance / self.width_m,
+                capacitance_per_m=capacitance / self.width_m,
+                resistance_per_m=skin * self.perimeter_m / self.width_m,
+            )
         return self._lines[freq_hz]
 
     def termination_ohm(self, freq_hz: float) -> float:
@@ -129,23 +301,21 @@ class TerminatedLoop(TransformerFeed, Antenna):
         return self._auto_term[freq_hz]
 
     def _best_termination(self, freq_hz: float) -> float:
-        """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation (coarse sweep)."""
-        from noisemodels.sphere import upper_hemisphere
+        """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation
+        (longwire.best_resistor: a coarse sweep, then a bounded search)."""
+        how = "rdf" if self.params.auto_for == "snr" else self.params.auto_for  # alone, "snr" falls back to RDF
+        figure = termination_figure(
+            self.termination_pattern(freq_hz), self.params.bearing, self.params.auto_elevation, how
+        )
+        return best_resistor(figure, AUTO_TERMINATIONS_OHM)
 
-        grid = upper_hemisphere(8)
-        el = np.array([self.params.auto_elevation])
-        fwd_dir = np.array([self.params.bearing])
-        best, best_r = -np.inf, None
-        for r in AUTO_TERMINATIONS_OHM:
-            fwd = self._gain(freq_hz, fwd_dir, el, float(r))[0]
-            if self.params.auto_for == "rdf":
-                g = self._gain(freq_hz, grid.azimuth_rad, grid.elevation_rad, float(r))
-                figure = fwd / (np.dot(g, grid.solid_angle_sr) / (2 * np.pi))
-            else:
-                figure = fwd / max(self._gain(freq_hz, fwd_dir + np.pi, el, float(r))[0], 1e-300)
-            if figure > best:
-                best, best_r = figure, float(r)
-        return best_r
+    def termination_pattern(self, freq_hz: float):
+        """pattern(az, el, r): the power pattern with a termination r [ohm] (see longwire.termination_figure)."""
+        return lambda az, el, r: self._gain(freq_hz, az, el, float(r))
+
+    def matched_termination_ohm(self, freq_hz: float) -> float:
+        """|Z0| of the loop's line, sqrt(L / C) of the whole loop [ohm] (the resistor that would match it)."""
+        return float(abs(self.line(freq_hz).z0))
 
     def feed_point_impedance(self, freq_hz: float) -> complex:
         return self._feed_impedance(freq_hz, self.termination_ohm(freq_hz))
@@ -164,18 +334,32 @@ class TerminatedLoop(TransformerFeed, Antenna):
         w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.line_bearing_rad, ground=self.ground)
         top_v, top_h = field_along_wire(w, self.z_top)
         bottom_v, bottom_h = field_along_wire(w, self.z_bottom)
-        side = vertical_emf(w, self.z_bottom, self.z_top)[w.inv]  # each vertical side, bottom wire to top wire
+        side = vertical_emf(w, self.z_bottom, self.z_top)[w.inv]  # each side, bottom to top of the rectangle
         load = self._load_ohm(freq_hz, termination_ohm)
+        line = self.line(freq_hz)
         i_f, _ = line_currents(
             w,
-            line=self.line(freq_hz),
+            line=line,
             length_m=self.width_m,
             z_feed=load,
             z_far=termination_ohm,
             drive_v=-w.cos_dphi * (top_v - bottom_v)[w.inv],
             drive_h=-w.sin_dphi * (top_h - bottom_h)[w.inv],
-            v_end=side,
+            v_end=0.0,
         )
+        # The sides' EMFs, up at the feed side and (with the wave's phase along the width) at the far side: their
+        # difference is the loop's magnetic response, kept whole; their common part, the electric response, is
+        # scaled by the charge moment's height over the spacing.
+        e_feed = side
+        e_far = side * np.exp((1j * w.k * self.width_m) * w.along)
+        share = self.electric_share(freq_hz)
+        mag, ele = 0.5 * (e_feed - e_far), 0.5 * share * (e_feed + e_far)
+        g, z0, length = line.gamma, line.z0, self.width_m
+        e2, eg = np.exp(-2 * g * length), np.exp(-g * length)
+        ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+        denom = z0 * (load + termination_ohm) * ch + (z0**2 + load * termination_ohm) * sh
+        ends = (mag + ele) * ((z0 * ch + termination_ohm * sh) / denom) + (mag - ele) * (z0 * eg / denom)
+        i_f = (i_f[0] + ends, i_f[1])
         return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in i_f)
 
     def _gain(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm):

@@ -44,7 +44,20 @@ class WireFamily(click.Choice):
     show_default=True,
     help="Target elevation [deg] along the wire's bearing, for RDF and the length rule.",
 )
-@click.option("--termination", default="auto", show_default=True, help="Termination resistor [ohm] or 'auto' (|Z0|).")
+@click.option(
+    "--termination",
+    default="auto",
+    show_default=True,
+    help="Termination resistor [ohm] or 'auto' (the one of best --best-for).",
+)
+@click.option(
+    "--best-for",
+    type=click.Choice(["rdf", "front_to_back", "z0"]),
+    default="rdf",
+    show_default=True,
+    help="What termination 'auto' maximises along the wire at 20 deg (z0: |Z0| less the far ground, the trade's "
+    "rule for a flat SWR); the same resistor rank --build and the report give for auto_for in a scenario.",
+)
 @click.option(
     "--feed-ground",
     default="20 ohm",
@@ -75,6 +88,7 @@ def wire(
     permittivity,
     elevation,
     termination,
+    best_for,
     feed_ground,
     far_ground,
     coax,
@@ -84,8 +98,8 @@ def wire(
 
     Prints the line's velocity factor, attenuation and Z0; the traditional
     maximum-effective-length rule beside the length the model finds best for
-    RDF toward --elevation along the wire; the textbook termination (|Z0|)
-    beside the ones of best RDF and best front-to-back; and the transformer
+    RDF toward --elevation along the wire; the termination resistor of best
+    RDF (or --best-for) with its E12 value, |Z0| beside it and how flat the optimum is; and the transformer
     turns ratio that matches the feed to the coax, with its mismatch loss.
     """
     import numpy as np
@@ -109,6 +123,8 @@ def wire(
         coax=int(coax),
         depth=depth,
     )
+    if "termination" in spec:
+        spec["auto_for"] = best_for
     with progress(None, "wire: line constants, length and termination"):
         out = wiredesign.wire_report(spec, f, elevation_rad=float(np.radians(elevation)))
     if fmt == "json":
@@ -152,13 +168,7 @@ def wire(
                 f"to {hi:.0f} ohm: the line's loss absorbs what the far end reflects); |Z0| less the far ground "
                 f"({out['far_ground_ohm']:.0f} ohm) = {out['textbook_termination_ohm']:.0f} ohm"
             )
-        else:
-            lines_out.append(
-                f"  termination: |Z0| less the far ground ({out['far_ground_ohm']:.0f} ohm) = "
-                f"{out['textbook_termination_ohm']:.0f} ohm; best RDF "
-                f"{best('best_rdf_termination_ohm')} (RDF spans {spans[0]:.1f} dB over {lo:.0f}-{hi:.0f} ohm); "
-                f"best front-to-back {best('best_front_to_back_termination_ohm')} (spans {spans[1]:.1f} dB)"
-            )
+        lines_out += termination_lines(out)
     zin = out["feed_point_impedance_ohm"]
     exact = out["exact_turns_ratio"]
     lines_out += [
@@ -169,3 +179,26 @@ def wire(
         out["safety"],
     ]
     click.echo("\n".join(lines_out))
+
+
+def termination_lines(out: dict) -> list[str]:
+    """The one termination answer (wiredesign.termination_answer) as the builder reads it: the resistor of the
+    antenna's criterion, its E12 value, |Z0| and the dB between, how flat the optimum is, the other criterion's
+    resistor, and the cautions."""
+    answers = out["termination_answers"]
+    crit = out.get("termination_criterion", "rdf")
+    names = {"rdf": "RDF", "front_to_back": "front-to-back"}
+    a = answers.get(crit, answers["rdf"])
+    other = answers["front_to_back" if a["criterion"] == "rdf" else "rdf"]
+    return [
+        f"  termination: fit {a['termination_ohm']:.0f} ohm (nearest E12 {a['standard_ohm']:g} ohm, "
+        f"{a['standard_loss_db']:.2f} dB off the best), the resistor of best {names[a['criterion']]} along the "
+        f"wire at 20 deg ({a['figure_db']:.1f} dB)",
+        f"    |Z0| less the far ground ({out['far_ground_ohm']:.0f} ohm) = {a['matched_ohm']:.0f} ohm, the trade's "
+        f"rule for a flat SWR (common practice): {a['over_matched_db']:.2f} dB less {names[a['criterion']]} than "
+        f"{a['termination_ohm']:.0f} ohm",
+        f"    how flat: {a['loss_at_0p7_db']:.2f} dB lost at 0.7x ({0.7 * a['termination_ohm']:.0f} ohm), "
+        f"{a['loss_at_1p4_db']:.2f} dB at 1.4x ({1.4 * a['termination_ohm']:.0f} ohm); best "
+        f"{names[other['criterion']]}: {other['termination_ohm']:.0f} ohm (E12 {other['standard_ohm']:g})",
+        "    " + a["caution"],
+    ]

@@ -71,6 +71,14 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
         if term is not None:
             out["termination_ohm"] = float(term)
             out["termination_standard_ohm"] = nearest_standard_ohm(term)
+            # The one answer (wiredesign.termination_answer, which `wire` prints too): the resistor of the
+            # antenna's criterion with |Z0|, the dB between, how flat the optimum is and the cautions.
+            answer = wiredesign.termination_answer(antenna, freq_hz)
+            if answer is not None:
+                out["termination_answer"] = answer.to_dict()
+                out["termination_given"] = (
+                    getattr(antenna.params, "termination", "auto") != "auto" and antenna.sky_termination is None
+                )
             if hasattr(antenna, "far_rod_ohm"):
                 out["far_ground_ohm"] = float(antenna.far_rod_ohm)
     if hasattr(antenna, "feed_rod_ohm"):

@@ -58,7 +58,8 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
                     )
                 )
         far = getattr(ant, "far_rod_ohm", None)
-        if far and getattr(ant, "terminated", False) and getattr(ant.params, "termination", "auto") == "auto":
+        auto = getattr(ant.params, "termination", "auto") == "auto" or getattr(ant, "sky_termination", None)
+        if far and getattr(ant, "terminated", False) and auto:  # "auto", or chosen under the sky (steering)
             z0 = abs(ant.line(sc.freq_hz).z0)
             if far > 0.7 * z0:
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))

@@ -79,6 +79,16 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
     ref = None
     for k in order:
         ant = repoint(ants, old)[k]
+        if hasattr(ant, "termination_under_sky"):  # a resistor chosen by the ranking's statistic (longwire)
+            if ref is None:
+                ref = products(sc, [ants[0]], grid, skies)
+            ti = nearest_target(sc, ant.params.bearing)
+            ants[k] = ant.termination_under_sky(
+                sc.freq_hz,
+                lambda a, ref=ref, k=k, ti=ti: _median_gain(sc, grid, skies, ref, a, k, ti),
+                sc.targets[ti].name,
+            )
+            continue
         signal, noise, ti = sky_forms(sc, skies, ant, k)
         note = f"SNR toward {sc.targets[ti].name} under the site's noise"
         choices = [ant.under_sky(sc.freq_hz, signal=signal, noise=noise, note=note)]

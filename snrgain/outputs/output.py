@@ -349,6 +349,19 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
         if "termination_ohm" in b:
             far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
             bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")
+            ans = b.get("termination_answer")
+            if ans:  # the one answer (wiredesign.termination_answer), as `snrgain wire` prints it
+                crit = {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "|Z0|", "snr": "SNR gain"}[
+                    ans["criterion"]
+                ]
+                if ans.get("target"):
+                    crit += f" toward {ans['target']}"
+                bits.append(
+                    f"{'you gave it; ' if b.get('termination_given') else ''}best {crit} at "
+                    f"{ans['termination_ohm']:.0f} ohm, {ans['over_matched_db']:.2f} dB over |Z0| "
+                    f"{ans['matched_ohm']:.0f} ohm; {ans['loss_at_0p7_db']:.2f} / {ans['loss_at_1p4_db']:.2f} dB "
+                    f"lost at 0.7x / 1.4x; resistor {ans['caution_short']}"
+                )
             if b.get("end_to_end_loss_db", 0.0) > 20.0:
                 bits.append(
                     f"the wire loses {b['end_to_end_loss_db']:.0f} dB end to end, so the termination hardly matters"

@@ -133,8 +133,8 @@ def best_termination(
     """The termination of highest RDF or front-to-back for the target, beside |Z0|."""
     if metric not in ("rdf", "front_to_back"):
         raise ValueError(f"metric must be 'rdf' or 'front_to_back', got {metric!r}")
-    ant = variant(from_spec(spec), termination="auto")
-    textbook = ant.termination_ohm(freq_hz)
+    ant = from_spec(spec)
+    textbook = ant.matched_termination_ohm(freq_hz)
     tgt = _target(target, ant.bearing_rad)
     values = np.asarray(values_ohm if values_ohm is not None else np.geomspace(50.0, 3000.0, 61))
     grid = upper_hemisphere(nside)
@@ -145,6 +145,131 @@ def best_termination(
     fig = np.array(fig)
     i = int(np.argmax(fig))
     return TerminationAdvice(float(textbook), float(values[i]), metric, float(fig[i]), values, fig)
+
+
+RESISTOR_CAUTION = (
+    "Resistor: a non-inductive type (carbon or metal film, not wire-wound), rated 2 W or more: static from "
+    "wind and snow and energy from a nearby transmitter (your own, when the wire runs near its antenna) "
+    "burn out small ones, and a burnt-out termination leaves the antenna bidirectional. A gas discharge "
+    "tube or a bleed resistor (some 10-100 kohm) from the wire to the ground rod drains static and is common "
+    "practice; ground and disconnect the feed line when storms are near. Follow local codes."
+)
+
+RESISTOR_CAUTION_SHORT = (
+    "non-inductive, 2 W or more (static, a nearby transmitter); a gas discharge tube or bleed resistor to the ground "
+    "rod is common practice"
+)
+
+
+@dataclass(frozen=True)
+class TerminationAnswer:
+    """The one resistor the tool recommends for a terminated antenna, for one criterion, with its context."""
+
+    criterion: str
+    """"rdf" or "front_to_back" (toward the antenna's bearing at 20 deg, its auto_elevation for a loop), or "z0"
+    (|Z0|: the trade's rule for a flat SWR)."""
+    best_ohm: float
+    """The resistor that maximises the criterion; what termination = "auto" with this criterion gives [ohm]."""
+    standard_ohm: float
+    """The nearest E12 value [ohm]."""
+    matched_ohm: float
+    """|Z0| (less the far ground rod for a wire) [ohm]."""
+    best_db: float
+    """The criterion at the best resistor [dB]."""
+    over_matched_db: float
+    """The criterion at the best resistor over that at |Z0| [dB]."""
+    standard_loss_db: float
+    """What the E12 value loses against the best [dB]."""
+    loss_at_0p7_db: float
+    """What 0.7 x the best loses [dB]: how flat the optimum is below it."""
+    loss_at_1p4_db: float
+    """What 1.4 x the best loses [dB]."""
+    target: str | None = None
+    """The target the statistic is taken toward ("snr")."""
+
+    def to_dict(self) -> dict:
+        return {
+            "criterion": self.criterion,
+            "termination_ohm": self.best_ohm,
+            "standard_ohm": self.standard_ohm,
+            "matched_ohm": self.matched_ohm,
+            "figure_db": self.best_db,
+            "over_matched_db": self.over_matched_db,
+            "standard_loss_db": self.standard_loss_db,
+            "loss_at_0p7_db": self.loss_at_0p7_db,
+            "loss_at_1p4_db": self.loss_at_1p4_db,
+            "caution": RESISTOR_CAUTION,
+            "caution_short": RESISTOR_CAUTION_SHORT,
+            "target": self.target,
+        }
+
+
+def termination_answer(antenna, freq_hz: float, criterion: str | None = None) -> TerminationAnswer | None:
+    """The resistor the antenna's own termination = "auto" gives for ``criterion`` ("rdf", "front_to_back";
+    None: the antenna's ``auto_for``), with |Z0|, the E12 value and the figure's flatness around it; None for an
+    antenna without a resistor to choose.  The same function serves `wire`, the build sheet and the report."""
+    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
+    from snrgain.decide.build import nearest_standard_ohm
+
+    if not hasattr(antenna, "termination_pattern") or "termination" not in type(antenna.params).model_fields:
+        return None
+    pattern = antenna.termination_pattern(freq_hz)
+    if pattern is None:
+        return None
+    sky = antenna.sky_termination
+    if sky is not None and criterion in (None, "snr"):  # chosen under the site's noise (longwire.SkyTermination)
+        return _sky_answer(antenna, freq_hz, sky)
+    criterion = criterion or getattr(antenna.params, "auto_for", "rdf")
+    if criterion == "snr":  # no sky here: the antenna alone is rated on RDF
+        criterion = "rdf"
+    best = variant(antenna, termination="auto", auto_for=criterion).termination_ohm(freq_hz)
+    matched = antenna.matched_termination_ohm(freq_hz)
+    metric = "rdf" if criterion == "z0" else criterion  # |Z0| is rated on RDF
+    elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
+    bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
+    figure = termination_figure(pattern, bearing, elevation, metric)
+
+    def db(r):
+        return float(10 * np.log10(figure(max(r, 1e-3))))
+
+    at_best, standard = db(best), nearest_standard_ohm(best)
+    return TerminationAnswer(
+        criterion,
+        float(best),
+        standard,
+        float(matched),
+        at_best,
+        at_best - db(matched),
+        at_best - db(standard),
+        at_best - db(0.7 * best),
+        at_best - db(1.4 * best),
+    )
+
+
+def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
+    """The answer of a resistor chosen under the sky: its statistic read off the resistors tried (interpolated in
+    log R for 0.7x, 1.4x and the E12 value)."""
+    from snrgain.decide.build import nearest_standard_ohm
+
+    rs, fig = np.log(sky["values_ohm"]), np.asarray(sky["figure_db"])
+    best = float(antenna.params.termination)
+
+    def db(r):
+        return float(np.interp(np.log(r), rs, fig))
+
+    top, standard = float(np.max(fig)), nearest_standard_ohm(best)
+    return TerminationAnswer(
+        "snr",
+        best,
+        standard,
+        sky["matched_ohm"],
+        top,
+        top - db(max(sky["matched_ohm"], sky["values_ohm"][0])),  # |Z0| less the rod may be 0: the lowest tried
+        top - db(standard),
+        top - db(0.7 * best),
+        top - db(1.4 * best),
+        sky["target"],
+    )
 
 
 @dataclass(frozen=True)
@@ -258,13 +383,18 @@ def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_EL
         "safety": SAFETY,
     }
     if "termination" in type(ant.params).model_fields:  # a resistor the builder chooses
+        # The one answer (termination_answer): the resistor the antenna's termination = "auto" gives, which the
+        # ranking, the build sheet and the report use too; RDF and front-to-back along the wire at 20 deg.
+        answers = {c: termination_answer(ant, freq_hz, c) for c in ("rdf", "front_to_back")}
         t_rdf = best_termination(spec, freq_hz, target=target, metric="rdf")
         t_fb = best_termination(spec, freq_hz, target=target, metric="front_to_back")
         out.update(
-            textbook_termination_ohm=t_rdf.textbook_ohm,
+            textbook_termination_ohm=float(ant.matched_termination_ohm(freq_hz)),
             far_ground_ohm=float(ant.far_rod_ohm),
-            best_rdf_termination_ohm=t_rdf.best_ohm,
-            best_front_to_back_termination_ohm=t_fb.best_ohm,
+            best_rdf_termination_ohm=answers["rdf"].best_ohm,
+            best_front_to_back_termination_ohm=answers["front_to_back"].best_ohm,
+            termination_answers={c: a.to_dict() for c, a in answers.items()},
+            termination_criterion=getattr(ant.params, "auto_for", "rdf"),
             # How much the choice matters: each figure's range over the resistors searched (50-3000 ohm).
             termination_rdf_span_db=float(np.ptp(t_rdf.figure_db)),
             termination_front_to_back_span_db=float(np.ptp(t_fb.figure_db)),
