@@ -75,14 +75,17 @@ def _fb(ant, f, bearing):
 
 
 def _scenario_antennas():
-    from snrgain.scenario import load
+    from snrgain.scenario import load, read_source, split_bands
 
     out = []
     for path in sorted([*REPO.glob("scenarios/*.toml"), *REPO.glob("tests/data/sites/*.toml")]):
-        sc = load(path)
-        for ant in sc.candidates:
-            if wiredesign.termination_answer(ant, sc.freq_hz) is not None:
-                out.append(pytest.param(ant, sc.freq_hz, id=f"{path.stem}-{ant.name}"))
+        data, label, base = read_source(path)
+        for band, one in split_bands(data, label):  # a file of several bands: each band's antennas
+            sc = load(one, base_dir=base, label=label)
+            tag = path.stem if band is None else f"{path.stem}-{band}"
+            for ant in sc.candidates:
+                if wiredesign.termination_answer(ant, sc.freq_hz) is not None:
+                    out.append(pytest.param(ant, sc.freq_hz, id=f"{tag}-{ant.name}"))
     return out
 
 
@@ -110,7 +113,14 @@ def test_one_resistor_everywhere_and_it_is_the_best(ant, f):
     ]
     got = figure(variant(ant, termination=answer.best_ohm), f, bearing)
     assert got >= max(sweep) - 0.2
-    assert answer.loss_at_0p7_db >= -1e-6 and answer.loss_at_1p4_db >= -1e-6
+    from snrgain.antennas.longwire import RESISTOR_SWEEP_OHM
+
+    # the flatness either side; an answer at the lowest (highest) resistor searched has nothing better inside
+    # the range on that side, only beyond it
+    if answer.best_ohm > RESISTOR_SWEEP_OHM[0] * 1.01:
+        assert answer.loss_at_0p7_db >= -1e-6
+    if answer.best_ohm < RESISTOR_SWEEP_OHM[-1] / 1.01:
+        assert answer.loss_at_1p4_db >= -1e-6
 
 
 @pytest.mark.parametrize(

@@ -43,6 +43,32 @@ def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None,
             if problems:
                 raise ScenarioError(label, problems)
         return [(None, data)]
+    names, targets = _check_bands(band, data, label)
+    out = []
+    for name, table in zip(names, band):
+        one = copy.deepcopy(data)
+        one["band"] = copy.deepcopy(table)
+        time = dict(one.get("time") or {})
+        for key in ("months", "utc_hours"):
+            if key in table:
+                time[key] = copy.deepcopy(table[key])
+        if time:
+            one["time"] = time
+        one["target"] = [
+            {k: copy.deepcopy(v) for k, v in t.items() if k != "bands"} if isinstance(t, dict) else t
+            for t in targets
+            if not isinstance(t, dict) or t.get("bands") is None or name in t.get("bands", [])
+        ]  # a band's own file: its targets need no band names
+        if not one["target"]:
+            raise ScenarioError(
+                label, [(f'band "{name}"', "no target is listened on this band; name it in a target's bands")]
+            )
+        out.append((name, one))
+    return out
+
+
+def _check_bands(band: list, data: dict, label: str) -> tuple[list[str], list]:
+    """The bands' names and the targets of a file of several bands; ScenarioError naming every problem."""
     if not band or len(band) > MAX_BANDS:
         raise ScenarioError(label, [("band", f"give 1 to {MAX_BANDS} [[band]] tables; got {len(band)}")])
     if not all(isinstance(b, dict) for b in band):
@@ -66,27 +92,7 @@ def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None,
                 )
     if problems:
         raise ScenarioError(label, problems)
-    out = []
-    for name, table in zip(names, band):
-        one = copy.deepcopy(data)
-        one["band"] = copy.deepcopy(table)
-        time = dict(one.get("time") or {})
-        for key in ("months", "utc_hours"):
-            if key in table:
-                time[key] = copy.deepcopy(table[key])
-        if time:
-            one["time"] = time
-        one["target"] = [
-            {k: copy.deepcopy(v) for k, v in t.items() if k != "bands"} if isinstance(t, dict) else t
-            for t in targets
-            if not isinstance(t, dict) or t.get("bands") is None or name in t.get("bands", [])
-        ]  # a band's own file: its targets need no band names
-        if not one["target"]:
-            raise ScenarioError(
-                label, [(f'band "{name}"', "no target is listened on this band; name it in a target's bands")]
-            )
-        out.append((name, one))
-    return out
+    return names, targets
 
 
 def one_band(data: dict, band: str | None, label: str = "<scenario>") -> dict:
