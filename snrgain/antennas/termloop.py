@@ -166,19 +166,11 @@ def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
     """(L, C, h): the loop's inductance [H] (Neumann's formula), the differential capacitance between its two
     halves [F] and the height of their charge moment [m], over a ground whose static image has the factor
     ``image`` (-1 a perfect conductor).  Thin-wire moment solution: uniform charge (current) on each segment,
-    potential matched at the centres (on the wire's surface)."""
-    perimeter = sum(float(np.sum(np.hypot(*np.diff(np.asarray(p, float), axis=0).T))) for p in (upper, lower))
-    step = perimeter / _SEGMENTS
-    cu, vu, lu = _segments(upper, step, FEED_GAP_M)
-    cl, vl, ll = _segments(lower, step, FEED_GAP_M)
-    c, v, lengths = np.vstack([cu, cl]), np.vstack([vu, vl]), np.concatenate([lu, ll])
-    n, nu = len(lengths), len(lu)
-    idx = np.arange(n)
-    own = 2 * np.arcsinh(lengths / (2 * radius_m)) / lengths  # exact mean of 1/r over a segment, at its centre
-    p = _mean_inverse_distance(c, v, radius_m)
-    p[idx, idx] = own
-    p = p + image * _mean_inverse_distance(c, v, radius_m, (c * [1.0, -1.0], v * [1.0, -1.0]))
-    p /= 4 * np.pi * EPS0_F_PER_M
+    potential matched at the centres (on the wire's surface).  The potential matrix is P0 + image P1 (the wire's
+    own and its image's), so :func:`_loop_matrices` builds both once per outline and each ground only solves."""
+    inductance, p_own, p_image, heights, nu = _loop_matrices(_key(upper), _key(lower), float(radius_m))
+    p = (p_own + image * p_image) / (4 * np.pi * EPS0_F_PER_M)
+    n = len(heights)
     unit = np.zeros((n, 2))
     unit[:nu, 0] = 1.0
     unit[nu:, 1] = 1.0
@@ -187,7 +179,28 @@ def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
     pm = np.linalg.inv(cap)
     c_diff = 1.0 / (pm[0, 0] + pm[1, 1] - pm[0, 1] - pm[1, 0])
     charge = q @ np.linalg.solve(cap, [1.0, -1.0])  # +1 C on the upper half, -1 C on the lower
-    moment = float(np.sum(charge * c[:, 1]))
+    moment = float(np.sum(charge * heights))
+    return inductance, float(c_diff), moment
+
+
+def _key(points) -> tuple:
+    return tuple(tuple(float(x) for x in p) for p in points)
+
+
+@functools.lru_cache(maxsize=64)
+def _loop_matrices(upper, lower, radius_m: float):
+    """(L [H], P0, P1, segment heights [m], segments on the upper half) of an outline: Neumann's inductance and the
+    potential matrices of the wire and of its image (unscaled by 1 / (4 pi eps0)); the costly part of
+    :func:`loop_constants`, the same for every ground."""
+    perimeter = sum(float(np.sum(np.hypot(*np.diff(np.asarray(p, float), axis=0).T))) for p in (upper, lower))
+    step = perimeter / _SEGMENTS
+    cu, vu, lu = _segments(upper, step, FEED_GAP_M)
+    cl, vl, ll = _segments(lower, step, FEED_GAP_M)
+    c, v, lengths = np.vstack([cu, cl]), np.vstack([vu, vl]), np.concatenate([lu, ll])
+    idx = np.arange(len(lengths))
+    p_own = _mean_inverse_distance(c, v, radius_m)
+    p_own[idx, idx] = 2 * np.arcsinh(lengths / (2 * radius_m)) / lengths  # exact mean of 1/r on its own centre
+    p_image = _mean_inverse_distance(c, v, radius_m, (c * [1.0, -1.0], v * [1.0, -1.0]))
     # Neumann: the closed loop, upper path out and lower path back
     loop_c = np.vstack([cu, cl[::-1]])
     loop_v = np.vstack([vu, -vl[::-1]])
@@ -195,7 +208,7 @@ def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
     m = _mean_inverse_distance(loop_c, loop_v, radius_m) * np.einsum("ik,jk->ij", loop_v, loop_v)
     m[idx, idx] = 2 * np.arcsinh(loop_l / (2 * radius_m)) * loop_l
     inductance = MU0_H_PER_M / (4 * np.pi) * float(m.sum())
-    return inductance, float(c_diff), moment
+    return inductance, p_own, p_image, c[:, 1].copy(), len(lu)
 
 
 @functools.lru_cache(maxsize=256)
