@@ -119,18 +119,38 @@ RESISTOR_SWEEP_OHM = np.geomspace(30.0, 5000.0, 45)
 """The coarse sweep of a best-resistor search [ohm] (12 % steps, then refined)."""
 
 
-def best_resistor(figure, values_ohm=RESISTOR_SWEEP_OHM) -> float:
-    """The resistor [ohm] that maximises ``figure(r)``: the best of a coarse sweep, refined by a bounded search in
-    log R between its neighbours (to about 0.5 %)."""
-    from scipy.optimize import minimize_scalar
+GOLDEN = (np.sqrt(5.0) - 1.0) / 2.0
 
+
+def golden_max(f, lo: float, hi: float, *, xtol: float, maxiter: int = 40) -> tuple[float, float]:
+    """(x, f(x)) of the largest f found by golden-section search on [lo, hi] (a unimodal f: J. Kiefer, "Sequential
+    minimax search for a maximum", Proc. AMS 4 (1953) 502), until the bracket is under ``xtol`` or ``maxiter``
+    evaluations; numpy only (scipy.optimize is a slow import for one scalar search)."""
+    a, b = float(lo), float(hi)
+    c, d = b - GOLDEN * (b - a), a + GOLDEN * (b - a)
+    fc, fd = f(c), f(d)
+    for _ in range(maxiter):
+        if b - a <= xtol:
+            break
+        if fc >= fd:
+            b, d, fd = d, c, fc
+            c = b - GOLDEN * (b - a)
+            fc = f(c)
+        else:
+            a, c, fc = c, d, fd
+            d = a + GOLDEN * (b - a)
+            fd = f(d)
+    return (c, fc) if fc >= fd else (d, fd)
+
+
+def best_resistor(figure, values_ohm=RESISTOR_SWEEP_OHM) -> float:
+    """The resistor [ohm] that maximises ``figure(r)``: the best of a coarse sweep, refined by a golden-section
+    search in log R between its neighbours (to about 0.5 %)."""
     values = [float(figure(r)) for r in values_ohm]
     i = int(np.argmax(values))
     lo, hi = values_ohm[max(i - 1, 0)], values_ohm[min(i + 1, len(values_ohm) - 1)]
-    res = minimize_scalar(
-        lambda x: -figure(np.exp(x)), bounds=(np.log(lo), np.log(hi)), method="bounded", options={"xatol": 0.005}
-    )
-    return float(np.exp(res.x)) if -res.fun >= values[i] else float(values_ohm[i])
+    x, fx = golden_max(lambda x: float(figure(np.exp(x))), np.log(lo), np.log(hi), xtol=0.005)
+    return float(np.exp(x)) if fx >= values[i] else float(values_ohm[i])
 
 
 def termination_figure(pattern, bearing_rad: float, elevation_rad: float, metric: str):
@@ -176,9 +196,7 @@ class SkyTermination:
 
     def termination_under_sky(self, freq_hz: float, score, target: str):
         """The antenna with the resistor of highest ``score(variant)`` [dB] fixed: a sweep over SKY_SWEEP x |Z0|
-        and |Z0| itself, refined by a bounded search in log R between the best point's neighbours."""
-        from scipy.optimize import minimize_scalar
-
+        and |Z0| itself, refined by a golden-section search in log R between the best point's neighbours."""
         from snrgain.antennas.base import variant
 
         matched = max(self.matched_termination_ohm(freq_hz), 1.0)
@@ -194,12 +212,7 @@ class SkyTermination:
         scores = [value(r) for r in values]
         i = int(np.argmax(scores))
         lo, hi = values[max(i - 1, 0)], values[min(i + 1, len(values) - 1)]
-        minimize_scalar(
-            lambda x: -value(np.exp(x)),
-            bounds=(np.log(lo), np.log(hi)),
-            method="bounded",
-            options={"xatol": 0.02, "maxiter": 8},
-        )
+        golden_max(lambda x: value(np.exp(x)), np.log(lo), np.log(hi), xtol=0.02, maxiter=8)
         best = max(tried, key=tried.get)
         out = variant(self, termination=best)
         rs = sorted(tried)

@@ -315,7 +315,7 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
 
     def _best_termination(self, freq_hz: float) -> float:
         """The resistor of highest RDF (or front-to-back) toward the bearing at auto_elevation
-        (longwire.best_resistor: a coarse sweep, then a bounded search)."""
+        (longwire.best_resistor: a coarse sweep, then a golden-section search)."""
         how = "rdf" if self.params.auto_for == "snr" else self.params.auto_for  # alone, "snr" falls back to RDF
         figure = termination_figure(
             self.termination_pattern(freq_hz), self.params.bearing, self.params.auto_elevation, how
