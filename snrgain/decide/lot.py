@@ -135,6 +135,14 @@ def tx_clearance_m(site, freq_hz: float) -> float:
     return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * C_M_PER_S / freq_hz
 
 
+def _one_antenna(a, b) -> bool:
+    """True where ``a`` and ``b`` are states of one switched antenna (snrgain.scenario.antennas.SwitchedState)."""
+    from snrgain.scenario.antennas import switched_state
+
+    sa, sb = switched_state(a), switched_state(b)
+    return sa is not None and sb is not None and sa.group == sb.group
+
+
 def site_notices(sc) -> list[Notice]:
     """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical."""
     from shapely.geometry import Point
@@ -158,6 +166,8 @@ def site_notices(sc) -> list[Notice]:
     wires = [(a, s) for a, s in shapes if s is not None and s.geom_type == "LineString"]
     for i, (a, s) in enumerate(wires):
         for b, t in wires[i + 1 :]:
+            if _one_antenna(a, b):  # two states of one switched antenna are the same wire
+                continue
             if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
     ref = sc.reference

@@ -78,6 +78,10 @@ class AntennaResult:
     snr_gain_atmospheric_deciles_db: np.ndarray | None = field(default=None, repr=False)
     build: dict[str, Any] = field(default_factory=dict)
     """What to build: termination, transformer, phasing lines (snrgain.decide.build)."""
+    group: str | None = None
+    """The switched antenna this is one state of (the name written on the candidate; ``directions``), else None."""
+    state: str | None = None
+    """The state's label within its group, e.g. "NE (45 deg)"; None for an antenna that is not switched."""
 
     def __repr__(self) -> str:
         per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
@@ -257,6 +261,7 @@ class Results:
                 "reference": _antenna_dict(self.reference),
                 "candidates": [_antenna_dict(c) for c in self.candidates],
                 "build": {c.name: c.build for c in self.candidates},
+                "switched": self._switched_dict(),
                 "local_sources": self.local_sources,
                 "strong_signals": self.strong_signals,
                 "warnings": self.warnings,
@@ -285,6 +290,21 @@ class Results:
             )
         return {"ranking": rows, "best": {"name": tr.best, "runner_up": tr.runner_up, "margin_db": tr.margin_db}}
 
+    def _switched_dict(self) -> dict[str, Any]:
+        """Each switched antenna (group) once: its states in order and how they are switched
+        (snrgain.decide.build.switching)."""
+        from snrgain.decide.build import switching
+
+        return {group: switching(states) for group, states in self.groups().items()}
+
+    def groups(self) -> dict[str, list[AntennaResult]]:
+        """The candidates that are states of a switched antenna, by group (in the order written)."""
+        out: dict[str, list[AntennaResult]] = {}
+        for c in self.candidates:
+            if c.group is not None:
+                out.setdefault(c.group, []).append(c)
+        return out
+
     def _plan_dict(self) -> dict[str, Any]:
         p = self.plan
         return {
@@ -299,6 +319,7 @@ class Results:
                     "served_by": [
                         {
                             "antenna": s.antenna,
+                            "group": s.group,
                             "months": s.months,
                             "utc_hours": s.utc_hours,
                             "snr_gain_db": s.snr_gain_db,
@@ -315,6 +336,8 @@ class Results:
 def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
     return {
         "name": a.name,
+        "group": a.group,
+        "state": a.state,
         "family": a.family,
         "parameters": a.parameters,
         "snr_gain_db": {"axes": ["target", "month", "utc_hour"], "values": a.snr_gain_db},
