@@ -58,6 +58,9 @@ class PlaceSection(StrictModel):
         return None
 
 
+CANDIDATE_KEYS = ("directions",)
+"""Keys a candidate table may hold besides its family's, ``place`` and ``chain`` (taken out before the family
+validates the rest)."""
 MAX_DIRECTIONS = 8
 """The most states a switched antenna may have (eight points of the compass)."""
 
