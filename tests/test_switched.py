@@ -222,3 +222,27 @@ def test_directions_only_where_a_bearing_is_and_not_on_the_reference():
     twice = scenario({**FOUR_SQUARE, "directions": [45, 225]})
     twice["candidate"].append({"name": "four-square", "family": "vertical", "height": "7 m"})
     assert "used twice" in problems_of(twice)['candidate 2 ("four-square").name']
+
+
+def test_a_state_is_not_a_reference():
+    data = scenario({**FOUR_SQUARE, "directions": [45, 225]})
+    with pytest.raises(ScenarioError) as exc:
+        load(data, reference="four-square NE (45 deg)")
+    assert "one state of the switched antenna 'four-square'" in dict(exc.value.problems)["--reference"]
+
+
+def test_a_sweep_varies_every_state_of_a_switched_candidate(tmp_path):
+    from snrgain.tools import sweep
+
+    data = scenario(
+        {**FOUR_SQUARE, "directions": [45, 225]}, {"name": "short vertical", "family": "vertical", "height": "7 m"}
+    )
+    study = sweep.Study(data, "test", None, [sweep.parse_vary("four-square: height = 5 m, 7 m")])
+    rows = sweep.run_designs(study, list(enumerate(sweep.designs(study.varies))))
+    names = sorted({r["antenna"] for r in rows})
+    assert names == ["four-square NE (45 deg)", "four-square SW (225 deg)"]
+    assert len(rows) == 2 * 2 * 2  # designs x states x targets
+    col = study.varies[0].column
+    by = {(r["design"], r["antenna"], r["target"]): r["snr_gain_db"] for r in rows}
+    assert [r[col] for r in rows if r["design"] == 0][0] != [r[col] for r in rows if r["design"] == 1][0]
+    assert abs(by[(0, "four-square NE (45 deg)", "Europe")] - by[(1, "four-square NE (45 deg)", "Europe")]) > 0.01
