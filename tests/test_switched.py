@@ -246,3 +246,24 @@ def test_a_sweep_varies_every_state_of_a_switched_candidate(tmp_path):
     by = {(r["design"], r["antenna"], r["target"]): r["snr_gain_db"] for r in rows}
     assert [r[col] for r in rows if r["design"] == 0][0] != [r[col] for r in rows if r["design"] == 1][0]
     assert abs(by[(0, "four-square NE (45 deg)", "Europe")] - by[(1, "four-square NE (45 deg)", "Europe")]) > 0.01
+
+
+def test_the_states_of_one_wire_are_warned_about_once():
+    from snrgain.decide.lot import site_notices
+
+    data = scenario(
+        {
+            "name": "reversible beverage",
+            "family": "beverage",
+            "length": "200 m",
+            "height": "2.5 m",
+            "position": ["30 m", "30 m"],
+            "directions": ["45 deg", "225 deg"],
+        },
+        {"name": "bog", "family": "bog", "length": "80 m", "bearing": 160, "position": [100, 200]},
+    )
+    data["reference"]["position"] = [0, 0]
+    notes = [(n.code, n.antenna) for n in site_notices(load(data))]
+    assert notes.count(("wires-cross", "reversible beverage NE (45 deg)")) == 1
+    assert not [n for n in notes if n[1] == "reversible beverage SW (225 deg)"], notes
+    assert ("near-tx-vertical", "reversible beverage NE (45 deg)") in notes

@@ -151,7 +151,12 @@ def site_notices(sc) -> list[Notice]:
     site = sc.site
     lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
     keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
-    shapes = [(a, footprint(a)) for a in sc.candidates]
+    shapes = []
+    for a in sc.candidates:  # a switched antenna's states that stand as one (the same wire or elements): warned once
+        shape = footprint(a)
+        same = [t for b, t in shapes if t is not None and _one_antenna(a, b)]
+        if shape is None or not any(shape.hausdorff_distance(t) < 1e-6 for t in same):
+            shapes.append((a, shape))
     for ant, shape in shapes:
         if shape is None:
             continue
