@@ -267,3 +267,15 @@ def test_the_states_of_one_wire_are_warned_about_once():
     assert notes.count(("wires-cross", "reversible beverage NE (45 deg)")) == 1
     assert not [n for n in notes if n[1] == "reversible beverage SW (225 deg)"], notes
     assert ("near-tx-vertical", "reversible beverage NE (45 deg)") in notes
+
+
+def test_the_runner_up_is_another_antenna_not_another_state():
+    r = pipeline.evaluate(
+        scenario(
+            {**FOUR_SQUARE, "directions": [45, 225]}, {"name": "short vertical", "family": "vertical", "height": "7 m"}
+        )
+    )
+    europe = r.target_results[0]
+    assert europe.best == "four-square NE (45 deg)" and europe.runner_up == "short vertical"
+    gains = {a.name: a.snr_gain_median_db[0] for a in r.antennas}
+    assert europe.margin_db == pytest.approx(gains["four-square NE (45 deg)"] - gains["short vertical"])

@@ -386,9 +386,11 @@ def jsonable(x):
 def rank_for_target(
     candidates: list[AntennaResult], target_index: int, target_name: str, reference: AntennaResult
 ) -> TargetResult:
-    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up."""
+    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up (the
+    next antenna one could build instead: another state of the same switched antenna is not one)."""
     order = sorted(candidates, key=lambda a: -a.snr_gain_median_db[target_index])
-    runner = order[1] if len(order) > 1 else reference
+    others = [a for a in order[1:] if a.group is None or a.group != order[0].group]
+    runner = others[0] if others else reference
     margin = float(order[0].snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
     return TargetResult(target_name, [a.name for a in order], order[0].name, runner.name, margin)
 
