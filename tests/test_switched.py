@@ -117,6 +117,7 @@ def test_plan_text_json_and_labels_say_the_group(switched_and_written):
     d = json.loads(json.dumps(r.to_dict()))
     assert [c["group"] for c in d["candidates"]] == ["four-square"] * 4
     assert d["plan"]["by_target"][0]["served_by"][0]["group"] == "four-square"
+    assert d["plan"]["states"] == {"four-square": ["four-square NE (45 deg)", "four-square SE (135 deg)"]}
     sw = d["switched"]["four-square"]
     assert [s["state"] for s in sw["states"]] == [state_label(b) for b in BEARINGS]
     assert sw["relays"] == 2 and [s["relays_on"] for s in sw["states"]] == [[], [2], [1, 2], [1]]
@@ -219,6 +220,8 @@ def test_directions_only_where_a_bearing_is_and_not_on_the_reference():
     data = scenario({**FOUR_SQUARE, "directions": [45, 225]})
     data["reference"] = ref
     assert "the reference is one fixed antenna" in problems_of(data)["reference.directions"]
+    nameless = {k: v for k, v in FOUR_SQUARE.items() if k != "name"}
+    assert "needs a name" in problems_of(scenario({**nameless, "directions": [45, 225]}))["candidate 1.name"]
     twice = scenario({**FOUR_SQUARE, "directions": [45, 225]})
     twice["candidate"].append({"name": "four-square", "family": "vertical", "height": "7 m"})
     assert "used twice" in problems_of(twice)['candidate 2 ("four-square").name']

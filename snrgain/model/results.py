@@ -330,6 +330,7 @@ class Results:
                 for t, rows in sorted(p.by_target.items())
             ],
             "not_best": [{"target": self.targets[t]["name"], **why} for t, why in sorted(p.not_best.items())],
+            "states": getattr(p, "states", {}),
         }
 
 

@@ -180,6 +180,8 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
     bearings, problems = _directions_problem(directions, where)
     if problems:
         return [], problems
+    if not isinstance(spec.get("name"), str) or not spec["name"]:
+        return [], [(f"{where}.name", "a switched antenna (directions) needs a name: its states are named after it")]
     why = _switch_problem(family, spec, where)
     if why:
         return [], [(key, f"{directions!r}: {why}")]
