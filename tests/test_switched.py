@@ -169,6 +169,11 @@ def test_a_reversible_wire_is_one_wire_fed_from_either_end():
     from snrgain.decide.lot import site_notices
 
     assert not [n for n in site_notices(sc) if n.code == "wires-cross"], "two states of one wire do not cross"
+    data = scenario({k: v for k, v in bev.items() if k != "position"})
+    data["reference"]["position"] = [10, -20]  # a wire without a position stands where the reference does
+    fwd, rev = load(data).candidates
+    assert fwd.params.position == (10.0, -20.0)
+    assert rev.params.position == pytest.approx((10 + 250 * np.sin(np.radians(45)), -20 + 250 * np.cos(np.radians(45))))
     two = {**bev, "name": "two-wire", "family": "two-wire", "spacing": "30 cm", "directions": [160, 340]}
     a, b = load(scenario(two)).candidates
     assert (a.params.port, b.params.port) == ("forward", "reverse")

@@ -217,9 +217,9 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
     return out, []
 
 
-def _far_end(first: Antenna, bearing_rad: float) -> tuple[float, float]:
-    """The far end of a long wire standing at its position (else the plan's origin) toward ``bearing_rad`` [m]."""
-    p = first.params.position or (0.0, 0.0)
+def _far_end(first: Antenna, bearing_rad: float, start) -> tuple[float, float]:
+    """The far end of a long wire whose feed stands at ``start`` [m east, m north] toward ``bearing_rad`` [m]."""
+    p = start
     return (
         float(p[0] + first.length_m * np.sin(bearing_rad)),
         float(p[1] + first.length_m * np.cos(bearing_rad)),
@@ -388,11 +388,12 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
                     else table
                 )
                 if info.get("reverse_of") is not None and first is not None:  # the same wire, fed at its far end
-                    far = _far_end(first, info["reverse_of"])
-                    table = {**table, "position": [far[0], far[1]]}
-                    if first.params.position is None:
-                        first = first.at((0.0, 0.0))
+                    if first.params.position is None:  # an antenna without a position stands at the reference's
+                        ref = out.antennas[0] if out.wheres[:1] == ["reference"] else None
+                        first = first.at((ref and ref.params.position) or (0.0, 0.0))
                         out.antennas[-1] = first
+                    far = _far_end(first, info["reverse_of"], first.params.position)
+                    table = {**table, "position": [far[0], far[1]]}
                 ant = build_antenna(table, where, freq_hz=freq_hz)
             except SpecError as exc:
                 out.problems.extend(exc.problems)
