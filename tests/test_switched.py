@@ -287,3 +287,22 @@ def test_the_runner_up_is_another_antenna_not_another_state():
     assert europe.best == "four-square NE (45 deg)" and europe.runner_up == "short vertical"
     gains = {a.name: a.snr_gain_median_db[0] for a in r.antennas}
     assert europe.margin_db == pytest.approx(gains["four-square NE (45 deg)"] - gains["short vertical"])
+
+
+def test_end_fire_states_take_the_travel_time_delays_and_share_their_lines():
+    """End-fire delays per state against the end-fire condition (a progressive delay d cos(angle) / c along the
+    bearing; Kraus, Antennas, 2nd ed., ch. 4, arrays of point sources, the chapter cited from memory): on a 20 m
+    square toward 45 deg the elements wait 0, 20/(sqrt 2 c), 20/(sqrt 2 c) and 20 sqrt 2 / c; toward 225 deg the
+    order is reversed, so both states use the same three lines."""
+    from snrgain.physics.ground import C_M_PER_S
+
+    r = pipeline.evaluate(scenario({**FOUR_SQUARE, "auto_for": "end-fire", "directions": [45, 225]}))
+    step = 20.0 / np.sqrt(2.0) / C_M_PER_S * 1e9  # [ns]
+    ne, sw = r.candidates
+    assert ne.build["delays_ns"] == pytest.approx([0.0, step, step, 2 * step], abs=1e-6)
+    assert sw.build["delays_ns"] == pytest.approx([2 * step, step, step, 0.0], abs=1e-6)
+    table = switching(r.groups()["four-square"])
+    assert table["lines_ns"] == pytest.approx([0.0, step, 2 * step], abs=1e-6)
+    assert [s["element_lines"] for s in table["states"]] == [[1, 2, 2, 3], [3, 2, 2, 1]]
+    vf = ne.build["phasing_cable_velocity_factor"]
+    assert table["lines_m"] == pytest.approx([t * 1e-9 * vf * C_M_PER_S for t in table["lines_ns"]])
