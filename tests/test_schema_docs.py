@@ -15,7 +15,7 @@ from pydantic import BaseModel
 
 from snrgain.antennas.base import FAMILIES
 from snrgain.scenario import ChainSection, PlaceSection, ScenarioModel, load
-from snrgain.scenario.antennas import CANDIDATE_KEYS
+from snrgain.scenario.switched import CANDIDATE_KEYS
 from tests.conftest import REPO
 
 README = REPO / "README.md"

@@ -18,7 +18,7 @@ from snrgain.decide.plan import station_plan
 from snrgain.errors import ScenarioError
 from snrgain.model import pipeline
 from snrgain.scenario import load
-from snrgain.scenario.antennas import state_label, switched_state
+from snrgain.scenario.switched import state_label, switched_state
 
 BEARINGS = [45, 135, 225, 315]
 

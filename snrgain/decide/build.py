@@ -116,7 +116,7 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             phasing_lengths_m=[coax_length_m(t, vf) for t in delays],
         )
         out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
-    from snrgain.scenario.antennas import switched_state
+    from snrgain.scenario.switched import switched_state
 
     sw = switched_state(antenna)
     if sw is not None:

@@ -137,7 +137,7 @@ def tx_clearance_m(site, freq_hz: float) -> float:
 
 def _one_antenna(a, b) -> bool:
     """True where ``a`` and ``b`` are states of one switched antenna (snrgain.scenario.antennas.SwitchedState)."""
-    from snrgain.scenario.antennas import switched_state
+    from snrgain.scenario.switched import switched_state
 
     sa, sb = switched_state(a), switched_state(b)
     return sa is not None and sb is not None and sa.group == sb.group

@@ -17,7 +17,7 @@ from snrgain.model.spread import SnrSpread, over_hours
 from snrgain.physics import chain as chainmod
 from snrgain.physics.receiver import power_dbm
 from snrgain.scenario import Scenario
-from snrgain.scenario.antennas import switched_state
+from snrgain.scenario.switched import switched_state
 from snrgain.sky import noise as noisemod
 
 
