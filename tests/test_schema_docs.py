@@ -15,6 +15,7 @@ from pydantic import BaseModel
 
 from snrgain.antennas.base import FAMILIES
 from snrgain.scenario import ChainSection, PlaceSection, ScenarioModel, load
+from snrgain.scenario.switched import CANDIDATE_KEYS
 from tests.conftest import REPO
 
 README = REPO / "README.md"
@@ -57,7 +58,7 @@ def antenna_keys(family: str | None = None) -> set[str]:
     out = set().union(*(all_keys(f.params) for f in families))
     for name, table in ANTENNA_TABLES.items():
         out |= {name} | all_keys(table)
-    return out
+    return out | set(CANDIDATE_KEYS)
 
 
 def schema_sections() -> dict[str, type[BaseModel] | None]:

@@ -7,6 +7,11 @@ as the length of coaxial cable that delays that much, length = delay x
 velocity factor x c, with the velocity factor from snrgain's cable table for
 the cable the antenna's feed line uses, else :data:`DEFAULT_PHASING_CABLE`.
 Transformer turns ratios are the antenna side over the coax side.
+
+A switched antenna (``directions``) has one sheet per state (its bearing, its delays) and one switching table for
+the antenna (:func:`switching`): the relays that select each state, coded so that stepping to the next state in
+the order written moves one relay (a reflected binary, Gray, code: ceil(log2 N) relays for N states), and for an
+array the phasing lines each state switches in behind each element.
 """
 
 from __future__ import annotations
@@ -119,4 +124,73 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             phasing_lengths_m=[coax_length_m(t, vf) for t in delays],
         )
         out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
+    from snrgain.scenario.switched import switched_state
+
+    sw = switched_state(antenna)
+    if sw is not None:
+        out["switched"] = {"group": sw.group, "state": sw.state, "bearing_deg": sw.bearing_deg, "how": sw.how}
+    return out
+
+
+LINE_TOLERANCE_NS = 0.5
+"""Delays closer than this share one phasing line on a switched array's sheet [ns] (0.5 ns is about 10 cm of foam
+coax, below what a builder cuts to)."""
+
+SWITCH_HOW = {
+    "steered": "each state the array's delays toward its bearing",
+    "turned": "each state the antenna set for its bearing (for the opposite bearing, feed and termination swap sides)",
+    "ends": "the feed and the termination swap ends of the one wire (a relay at each end, a feed line to the far end)",
+    "port": "the receiver switched between the forward and the reverse port of the one line",
+}
+"""How the states of a switched antenna differ, in words (snrgain.scenario.antennas.SwitchedState.how)."""
+
+
+def gray_code(index: int, relays: int) -> list[int]:
+    """The relays energised (1) for state ``index``: the reflected binary code of ``index``, first relay first.
+
+    >>> [gray_code(i, 2) for i in range(4)]
+    [[0, 0], [0, 1], [1, 1], [1, 0]]
+    """
+    g = index ^ (index >> 1)
+    return [(g >> (relays - 1 - k)) & 1 for k in range(relays)]
+
+
+def switching(states) -> dict:
+    """The switching of one switched antenna, from its states' results (AntennaResult with ``build`` and ``state``,
+    in the order written): the relays per state and, for an array, the phasing lines each element takes per state
+    (lines of one length shared, :data:`LINE_TOLERANCE_NS`)."""
+    n = len(states)
+    relays = max(1, int(np.ceil(np.log2(n))))
+    how = states[0].build.get("switched", {}).get("how", "turned")
+    out: dict = {"states": [], "relays": relays, "how": how, "how_text": SWITCH_HOW.get(how, how)}
+    delays = [s.build.get("delays_ns") for s in states]
+    lines: list[float] = []
+    if all(d is not None for d in delays):
+        for d in delays:
+            for t in d:
+                if not any(abs(t - x) < LINE_TOLERANCE_NS for x in lines):
+                    lines.append(float(t))
+        lines.sort()
+        vf = states[0].build["phasing_cable_velocity_factor"]
+        out.update(
+            phasing_cable=states[0].build["phasing_cable"],
+            lines_ns=lines,
+            lines_m=[coax_length_m(t * 1e-9, vf) for t in lines],
+        )
+    for k, s in enumerate(states):
+        row = {
+            "state": s.state,
+            "antenna": s.name,
+            "bearing_deg": s.build.get("switched", {}).get("bearing_deg", s.build.get("bearing_deg")),
+            "relays_on": [i + 1 for i, on in enumerate(gray_code(k, relays)) if on],
+        }
+        if lines:
+            row["element_lines"] = [
+                1 + min(range(len(lines)), key=lambda j, t=t: abs(lines[j] - t)) for t in s.build["delays_ns"]
+            ]
+        if "port" in s.build:
+            row["port"] = s.build["port"]
+        if how == "ends" and "position_m" in s.build:
+            row["feed_at_m"] = s.build["position_m"]
+        out["states"].append(row)
     return out

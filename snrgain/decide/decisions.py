@@ -87,6 +87,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         max_antennas=sc.max_antennas,
         buildable=[ant.buildable for ant in sc.antennas],
         target_times=[(list(tt.months), list(tt.utc_hours)) for tt in sc.target_times],
+        groups=[a.group for a in antennas],
     )
     return Results(
         source=sc.source,

@@ -135,6 +135,14 @@ def tx_clearance_m(site, freq_hz: float) -> float:
     return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * C_M_PER_S / freq_hz
 
 
+def _one_antenna(a, b) -> bool:
+    """True where ``a`` and ``b`` are states of one switched antenna (snrgain.scenario.antennas.SwitchedState)."""
+    from snrgain.scenario.switched import switched_state
+
+    sa, sb = switched_state(a), switched_state(b)
+    return sa is not None and sb is not None and sa.group == sb.group
+
+
 def site_notices(sc) -> list[Notice]:
     """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical."""
     from shapely.geometry import Point
@@ -143,7 +151,12 @@ def site_notices(sc) -> list[Notice]:
     site = sc.site
     lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
     keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
-    shapes = [(a, footprint(a)) for a in sc.candidates]
+    shapes = []
+    for a in sc.candidates:  # a switched antenna's states that stand as one (the same wire or elements): warned once
+        shape = footprint(a)
+        same = [t for b, t in shapes if t is not None and _one_antenna(a, b)]
+        if shape is None or not any(shape.hausdorff_distance(t) < 1e-6 for t in same):
+            shapes.append((a, shape))
     for ant, shape in shapes:
         if shape is None:
             continue
@@ -158,6 +171,8 @@ def site_notices(sc) -> list[Notice]:
     wires = [(a, s) for a, s in shapes if s is not None and s.geom_type == "LineString"]
     for i, (a, s) in enumerate(wires):
         for b, t in wires[i + 1 :]:
+            if _one_antenna(a, b):  # two states of one switched antenna are the same wire
+                continue
             if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
     ref = sc.reference

@@ -25,6 +25,11 @@ target's best antenna is not in the plan, :attr:`Plan.not_best` says which
 it is, who serves the target instead, and why (the antenna limit, or too
 little added).  Yardsticks that cannot be built (the isotropic antenna)
 take no part.
+
+A switched antenna (a candidate with ``directions``) is one antenna to build whose states are ranked like
+candidates: the plan takes its states together, as one member that serves each target in its best state (its
+G[., t] is the highest of its states'), so building it counts once against ``max_antennas`` and it is named once
+in :attr:`Plan.antennas` by its group; the services name the state that serves each target.
 """
 
 from __future__ import annotations
@@ -49,6 +54,8 @@ class Service:
     utc_hours: list[float]
     snr_gain_db: float
     """Median SNR gain over the reference toward the target [dB] (the ranking's statistic)."""
+    group: str | None = None
+    """The switched antenna ``antenna`` is a state of (switched to that state for the target), else None."""
 
 
 @dataclass(frozen=True)
@@ -67,6 +74,9 @@ class Plan:
     """Target index -> {best, best_db, served_by, served_db, reason} where the target's best antenna is not the
     one the plan serves it with; reason "max_antennas" (the plan holds no more) or "adds_little" (it adds less
     than MIN_ADDED_DB to the plan's worth)."""
+    states: dict[str, list[str]] = field(default_factory=dict)
+    """A switched antenna of the plan (by its group name, as in ``antennas``) -> its states that serve a target, in
+    the order written; the antenna is built once and switched between them."""
 
 
 def worth(gains: np.ndarray, weights: np.ndarray, members) -> float:
@@ -89,12 +99,14 @@ def station_plan(
     max_antennas: int | None = None,
     buildable=None,
     target_times=None,
+    groups=None,
 ) -> Plan:
     """The station plan (module docstring); ``names[0]`` is the reference.
 
     ``gains`` (antennas, targets): the median SNR gain over the reference [dB], the reference's row 0;
     ``buildable[i]`` False keeps antenna i out of the plan (a yardstick); ``target_times[t]``: (months, utc_hours)
-    each target is listened at, for the services.
+    each target is listened at, for the services; ``groups[i]``: the switched antenna that antenna i is a state of
+    (None: an antenna of its own); the states of one group are one member of the plan.
 
     >>> g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
     >>> p = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]))
@@ -103,18 +115,35 @@ def station_plan(
     >>> p1 = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]), max_antennas=1)
     >>> p1.antennas, p1.not_best[1]["best"], p1.not_best[1]["reason"]
     (['a'], 'b', 'max_antennas')
+    >>> s = station_plan(["ref", "sq N", "sq S"], g, np.array([0.5, 0.5]), max_antennas=1, groups=[None, "sq", "sq"])
+    >>> s.antennas, round(s.gain_db, 2), s.states, s.by_target[1][0].antenna
+    (['sq'], 5.11, {'sq': ['sq N', 'sq S']}, 'sq S')
     """
     gains = np.nan_to_num(np.asarray(gains, dtype=float), nan=0.0)
     gains[0] = 0.0
+    groups = [None] * len(names) if groups is None else list(groups)
     candidates = [i for i in range(1, len(names)) if buildable is None or buildable[i]]
-    n = len(candidates)
+    units: list[tuple[int, ...]] = []  # one member each: an antenna, or every state of a switched antenna
+    unit_names: list[str] = []
+    for i in candidates:
+        if groups[i] is not None and groups[i] in unit_names:
+            k = unit_names.index(groups[i])
+            units[k] = (*units[k], i)
+        else:
+            units.append((i,))
+            unit_names.append(names[i] if groups[i] is None else groups[i])
+
+    def value(chosen_units) -> float:
+        return worth(gains, weights, [i for u in chosen_units for i in units[u]])
+
+    n = len(units)
     limit = n if max_antennas is None else min(max_antennas, n)
     if n <= EXACT_LIMIT:
         method = "exact"
         best, best_value = (), 0.0
         for k in range(1, limit + 1):
-            for members in combinations(candidates, k):
-                v = worth(gains, weights, members)
+            for members in combinations(range(n), k):
+                v = value(members)
                 if v > best_value + 1e-12:
                     best, best_value = members, v
         chosen = list(best)
@@ -122,45 +151,52 @@ def station_plan(
         method = "greedy"
         chosen = []
         while len(chosen) < limit:
-            base = worth(gains, weights, chosen)
-            step, pick = max((worth(gains, weights, [*chosen, c]) - base, c) for c in candidates if c not in chosen)
+            base = value(chosen)
+            step, pick = max((value([*chosen, c]) - base, c) for c in range(n) if c not in chosen)
             if step <= 0:
                 break
             chosen.append(pick)
-    order, added, value, dropped = [], [], 0.0, []
+    order, added, total, dropped = [], [], 0.0, []
     remaining = list(chosen)
     while remaining:  # the members as greedy adding takes them; the tail that adds (almost) nothing is left out
-        step, pick = max((worth(gains, weights, [*order, c]) - value, c) for c in remaining)
+        step, pick = max((value([*order, c]) - total, c) for c in remaining)
         if step < MIN_ADDED_DB:
             dropped = list(remaining)
             break
         order.append(pick)
         added.append(step)
-        value += step
+        total += step
         remaining.remove(pick)
-    members = [0, *order]
-    by_target, not_best = {}, {}
+    members = [0, *(i for u in order for i in units[u])]
+    unit_of = {i: u for u, members_u in enumerate(units) for i in members_u}
+    by_target, not_best, serving = {}, {}, set()
     for t in range(gains.shape[1]):
         served = members[int(np.argmax(gains[members, t]))]  # first maximum: the earlier member wins a tie
+        serving.add(served)
         months, hours = ([], []) if target_times is None else target_times[t]
-        by_target[t] = [Service(names[served], list(months), [float(h) for h in hours], float(gains[served, t]))]
+        by_target[t] = [
+            Service(names[served], list(months), [float(h) for h in hours], float(gains[served, t]), groups[served])
+        ]
         top = max(candidates, key=lambda a: gains[a, t], default=None)
         if top is not None and gains[top, t] > gains[served, t] + 1e-9:
+            u = unit_of[top]
             not_best[t] = {
                 "best": names[top],
                 "best_db": float(gains[top, t]),
                 "served_by": names[served],
                 "served_db": float(gains[served, t]),
-                "reason": "adds_little"
-                if top in dropped or top not in chosen and len(chosen) < limit
-                else "max_antennas",
+                "reason": "adds_little" if u in dropped or u not in chosen and len(chosen) < limit else "max_antennas",
             }
+    states = {
+        unit_names[u]: [names[i] for i in units[u] if i in serving] for u in order if groups[units[u][0]] is not None
+    }
     return Plan(
-        [names[i] for i in order],
+        [unit_names[u] for u in order],
         [float(a) for a in added],
-        float(value),
+        float(total),
         by_target,
         method,
         max_antennas,
         not_best,
+        states,
     )

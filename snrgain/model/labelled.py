@@ -223,6 +223,16 @@ def labelled(results: Results) -> Labelled:
         "antenna": ("antenna", names),
         "family": ("antenna", [a.family for a in ants], {"units": "-", "description": "antenna family"}),
         "is_reference": ("antenna", [a is r.reference for a in ants], {"units": "-"}),
+        "group": (
+            "antenna",
+            [a.group or a.name for a in ants],
+            {"units": "-", "description": "the antenna to build: a switched antenna's name for each of its states"},
+        ),
+        "state": (
+            "antenna",
+            [a.state or "" for a in ants],
+            {"units": "-", "description": "a switched antenna's state, e.g. 'NE (45 deg)'; '' for the others"},
+        ),
         "target": ("target", tnames),
         "weight": ("target", [float(t["weight"]) for t in r.targets], {"units": "-"}),
         "bearing_deg": ("target", [float(t["bearing_deg"]) for t in r.targets], {"units": "deg"}),

@@ -17,6 +17,7 @@ from snrgain.model.spread import SnrSpread, over_hours
 from snrgain.physics import chain as chainmod
 from snrgain.physics.receiver import power_dbm
 from snrgain.scenario import Scenario
+from snrgain.scenario.switched import switched_state
 from snrgain.sky import noise as noisemod
 
 
@@ -183,6 +184,8 @@ def antenna_results(sc: Scenario, nominal: Products, skies: noisemod.SkySeries, 
                 chain=chainmod.describe(ch, bandwidth_hz=b),
                 snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),
                 build={} if k == 0 else build_sheet(ant, sc.freq_hz, cable=ch.cable),
+                group=None if switched_state(ant) is None else switched_state(ant).group,
+                state=None if switched_state(ant) is None else switched_state(ant).state,
             )
         )
     return out

@@ -78,6 +78,10 @@ class AntennaResult:
     snr_gain_atmospheric_deciles_db: np.ndarray | None = field(default=None, repr=False)
     build: dict[str, Any] = field(default_factory=dict)
     """What to build: termination, transformer, phasing lines (snrgain.decide.build)."""
+    group: str | None = None
+    """The switched antenna this is one state of (the name written on the candidate; ``directions``), else None."""
+    state: str | None = None
+    """The state's label within its group, e.g. "NE (45 deg)"; None for an antenna that is not switched."""
 
     def __repr__(self) -> str:
         per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
@@ -257,6 +261,7 @@ class Results:
                 "reference": _antenna_dict(self.reference),
                 "candidates": [_antenna_dict(c) for c in self.candidates],
                 "build": {c.name: c.build for c in self.candidates},
+                "switched": self._switched_dict(),
                 "local_sources": self.local_sources,
                 "strong_signals": self.strong_signals,
                 "warnings": self.warnings,
@@ -285,6 +290,21 @@ class Results:
             )
         return {"ranking": rows, "best": {"name": tr.best, "runner_up": tr.runner_up, "margin_db": tr.margin_db}}
 
+    def _switched_dict(self) -> dict[str, Any]:
+        """Each switched antenna (group) once: its states in order and how they are switched
+        (snrgain.decide.build.switching)."""
+        from snrgain.decide.build import switching
+
+        return {group: switching(states) for group, states in self.groups().items()}
+
+    def groups(self) -> dict[str, list[AntennaResult]]:
+        """The candidates that are states of a switched antenna, by group (in the order written)."""
+        out: dict[str, list[AntennaResult]] = {}
+        for c in self.candidates:
+            if c.group is not None:
+                out.setdefault(c.group, []).append(c)
+        return out
+
     def _plan_dict(self) -> dict[str, Any]:
         p = self.plan
         return {
@@ -299,6 +319,7 @@ class Results:
                     "served_by": [
                         {
                             "antenna": s.antenna,
+                            "group": s.group,
                             "months": s.months,
                             "utc_hours": s.utc_hours,
                             "snr_gain_db": s.snr_gain_db,
@@ -309,12 +330,15 @@ class Results:
                 for t, rows in sorted(p.by_target.items())
             ],
             "not_best": [{"target": self.targets[t]["name"], **why} for t, why in sorted(p.not_best.items())],
+            "states": getattr(p, "states", {}),
         }
 
 
 def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
     return {
         "name": a.name,
+        "group": a.group,
+        "state": a.state,
         "family": a.family,
         "parameters": a.parameters,
         "snr_gain_db": {"axes": ["target", "month", "utc_hour"], "values": a.snr_gain_db},
@@ -363,9 +387,11 @@ def jsonable(x):
 def rank_for_target(
     candidates: list[AntennaResult], target_index: int, target_name: str, reference: AntennaResult
 ) -> TargetResult:
-    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up."""
+    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up (the
+    next antenna one could build instead: another state of the same switched antenna is not one)."""
     order = sorted(candidates, key=lambda a: -a.snr_gain_median_db[target_index])
-    runner = order[1] if len(order) > 1 else reference
+    others = [a for a in order[1:] if a.group is None or a.group != order[0].group]
+    runner = others[0] if others else reference
     margin = float(order[0].snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
     return TargetResult(target_name, [a.name for a in order], order[0].name, runner.name, margin)
 

@@ -287,6 +287,45 @@ def also_build(r: Results, k: int) -> str:
     return f" (build {' and '.join(needs)} for it)" if needs else ""
 
 
+def switched_text(r: Results, name: str) -> str:
+    """For a switched antenna of the plan: " (one antenna switched to <the states that serve a target>)", else ""."""
+    states = getattr(r.plan, "states", {}).get(name)
+    if not states:
+        return ""
+    labels = {c.name: c.state for c in r.candidates}
+    return f" (one antenna, switched to {', '.join(labels.get(s) or s for s in states)})"
+
+
+def switching_line(r: Results, group: str, unit: str) -> str:
+    """A switched antenna's switching in words (snrgain.decide.build.switching): the relays per state and, for an
+    array, the phasing lines and which each element takes per state."""
+    from snrgain.decide.build import switching
+
+    sw = switching(r.groups()[group])
+    bits = [f"one antenna switched between {len(sw['states'])} states ({sw['how_text']})"]
+    relays = "relay" if sw["relays"] == 1 else f"{sw['relays']} relays"
+    bits.append(
+        f"{relays}: "
+        + ", ".join(
+            f"{st['state']} " + ("all off" if not st["relays_on"] else "on " + "+".join(map(str, st["relays_on"])))
+            for st in sw["states"]
+        )
+    )
+    if "lines_ns" in sw:
+        bits.append(
+            f"phasing lines of {sw['phasing_cable']}: "
+            + ", ".join(
+                f"L{i + 1} {d:.0f} ns = {length_text(m, unit, 2 if unit == 'm' else 1)}"
+                for i, (d, m) in enumerate(zip(sw["lines_ns"], sw["lines_m"]))
+            )
+        )
+        bits.append(
+            "elements take "
+            + "; ".join(f"{st['state']} " + ", ".join(f"L{j}" for j in st["element_lines"]) for st in sw["states"])
+        )
+    return "; ".join(bits)
+
+
 def plan_text(r: Results):
     """The station plan in words: what to build, in order, the dB each adds, and who serves which target when."""
     from rich.text import Text
@@ -304,7 +343,7 @@ def plan_text(r: Results):
         f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone ({PLAN_WORTH})\n"
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
-        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB{also_build(r, k)}\n")
+        out.append(f"  {k + 1}. {name}{switched_text(r, name)}: adds {added:+.1f} dB{also_build(r, k)}\n")
     for t, rows in sorted(p.by_target.items()):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
@@ -319,7 +358,11 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
 
     unit = r.site.get("length_unit", "m")  # lengths in the scenario's unit (snrgain.units.length_unit_of)
     out = []
+    told = set()
     for a in r.candidates:
+        if a.group is not None and a.group not in told:  # a switched antenna's switching, once, before its states
+            told.add(a.group)
+            out.append((a.group, switching_line(r, a.group, unit)))
         b = a.build
         bits = []
         loop = "loop_height_m" in b  # a loop is given by its shape, width and height, not a length
@@ -339,6 +382,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             )
         if "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
+        if b.get("switched", {}).get("how") == "port":  # one line, heard at its forward or its reverse port
+            bits.append(f"{b['port']} port")
         if loop:
             w, h = b["width_m"], b["loop_height_m"]
             other = "m" if unit == "ft" else "ft"

@@ -246,7 +246,7 @@ def _spread_words(r) -> str:
 
 def _plan(r) -> str:
     from snrgain.outputs.messages import PLAN_WORTH, plan_not_best_text
-    from snrgain.outputs.output import also_build
+    from snrgain.outputs.output import also_build, switched_text
 
     p = r.plan
     looks = looks_of(r)
@@ -258,7 +258,7 @@ def _plan(r) -> str:
     ]
 
     out += [
-        f"<li>{_swatch(looks, n)}{_e(n)}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
+        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
     ]
     out.append(

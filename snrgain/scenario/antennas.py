@@ -1,6 +1,7 @@
 """[reference] and [[candidate]]: the antenna tables built by their families (the site's ground and the scenario's
 folder filled in, an antenna's own ``chain`` and ``place`` tables taken out), combinations given their two
-antennas, names checked."""
+antennas, names checked.  A switched candidate (``directions``) is built as one antenna per state (see
+:mod:`snrgain.scenario.switched`)."""
 
 from __future__ import annotations
 
@@ -19,6 +20,7 @@ from snrgain.physics.ground import C_M_PER_S
 
 from .receiver import ChainSection
 from .site import raw_ground
+from .switched import expand_directions, far_end
 
 
 class PlaceSection(StrictModel):
@@ -160,6 +162,35 @@ def name_problems(ant: Antenna, where: str, names: set, ref_name: str | None) ->
     return []
 
 
+def group_problems(spec, states, own_place, where: str, taken: set) -> list[tuple[str, str]]:
+    """A switched candidate (more than one state) is not placed by layout, and its name is its own."""
+    if len(states) < 2:
+        return []
+    if own_place is not None:
+        return [
+            (
+                f"{where}.place",
+                "snrgain layout does not move a switched antenna (directions): its states are one antenna to build; "
+                "give its position by hand and leave place out",
+            )
+        ]
+    if isinstance(spec.get("name"), str) and spec["name"] in taken:
+        return [(f"{where}.name", f"name {spec['name']!r} is used twice")]
+    return []
+
+
+def reversed_wire(out, first: Antenna, table: dict, bearing_rad: float) -> tuple[Antenna, dict]:
+    """A reversed wire's state fed at the far end of the first state's wire: (the first state, placed where it
+    stands when it gave no position: at the reference's, as an antenna without a position is; the reversed
+    state's table)."""
+    if first.params.position is None:
+        ref = out.antennas[0] if out.wheres[:1] == ["reference"] else None
+        first = first.at((ref and ref.params.position) or (0.0, 0.0))
+        out.antennas[-1] = first
+    end = far_end(first, bearing_rad, first.params.position)
+    return first, {**table, "position": [end[0], end[1]]}
+
+
 @dataclass
 class Built:
     """The antennas built, the reference first when it built, with where each was written, its own chain section
@@ -173,7 +204,8 @@ class Built:
 
 
 def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
-    """Every antenna table validated by its own family (even when other sections failed) and built."""
+    """Every antenna table validated by its own family (even when other sections failed) and built; a switched
+    candidate (``directions``) built as one antenna per state (module docstring)."""
     site_ground = raw_ground(data.get("site", {})) if isinstance(data, dict) else "moist loam"
     out = Built()
     names: set = set()
@@ -183,26 +215,46 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
         if problems:
             out.problems.extend(problems)
             continue
-        try:
-            table = (
-                inject_defaults(spec, site_ground=site_ground, base_dir=base_dir) if isinstance(spec, dict) else spec
-            )
-            ant = build_antenna(table, where, freq_hz=freq_hz)
-        except SpecError as exc:
-            out.problems.extend(exc.problems)
+        states, problems = expand_directions(spec, where) if isinstance(spec, dict) else ([(spec, {})], [])
+        if problems:
+            out.problems.extend(problems)
             continue
-        out.problems.extend(name_problems(ant, where, names, ref_name))
-        if where == "reference":
-            ref_name = ant.name
+        problems = group_problems(spec, states, own_place, where, names | {ref_name})
+        if problems:
+            out.problems.extend(problems)
+            continue
+        first = None
+        for table, info in states:
+            try:
+                table = (
+                    inject_defaults(table, site_ground=site_ground, base_dir=base_dir)
+                    if isinstance(table, dict)
+                    else table
+                )
+                if info.get("reverse_of") is not None and first is not None:  # the same wire, fed at its far end
+                    first, table = reversed_wire(out, first, table, info["reverse_of"])
+                ant = build_antenna(table, where, freq_hz=freq_hz)
+            except SpecError as exc:
+                out.problems.extend(exc.problems)
+                break
+            if "switched" in info:
+                ant.switched = info["switched"]
+            first = first or ant
+            out.problems.extend(name_problems(ant, where, names, ref_name))
+            if where == "reference":
+                ref_name = ant.name
+            else:
+                names.add(ant.params.name)
+            out.antennas.append(ant)
+            out.wheres.append(where)
+            out.chains.append(own_chain)
         else:
-            names.add(ant.params.name)
-        out.antennas.append(ant)
-        out.wheres.append(where)
-        out.chains.append(own_chain)
-        if own_place is not None:
-            problem = own_place.problem_for(ant)
-            if problem:
-                out.problems.append((f"{where}.place", problem))
-            out.placeable[ant.name] = own_place
+            if len(states) > 1:
+                names.add(spec.get("name"))
+            if own_place is not None and first is not None:
+                problem = own_place.problem_for(first)
+                if problem:
+                    out.problems.append((f"{where}.place", problem))
+                out.placeable[first.name] = own_place
     out.problems.extend(attach_combinations(out.antennas, out.wheres))
     return out

@@ -90,6 +90,14 @@ def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
         return [("--reference", f"no antenna named {name!r}; the scenario has {', '.join(repr(n) for n in names)}")]
     k = names.index(name)
     ant = built.antennas[k]
+    if getattr(ant, "switched", None) is not None:  # a state of a switched antenna (scenario.antennas.SwitchedState)
+        return [
+            (
+                "--reference",
+                f"{name!r} is one state of the switched antenna {ant.switched.group!r}; rank against "
+                "an antenna that is not switched",
+            )
+        ]
     if getattr(ant.params, "steering", None) == "auto" and getattr(ant.params, "auto_for", None) == "snr":
         return [
             (

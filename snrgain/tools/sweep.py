@@ -341,7 +341,7 @@ def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
         else:
             sc, _, _, per = pipeline.nominal(study.load(data))
             targets, chosen = [t.name for t in sc.targets], per[1:]
-        names = varied & {c.name for c in chosen}
+        names = {c.name for c in chosen if c.name in varied or c.group in varied}  # a switched one: its states
         for a in [c for c in chosen if c.name in names] or chosen:
             rows += _rows(number, study.varies, values, a, targets, study.spread)
     return rows

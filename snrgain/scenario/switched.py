@@ -1,0 +1,190 @@
+"""Switched antennas: a candidate with ``directions = [...]`` (2 to :data:`MAX_DIRECTIONS` distinct bearings) is one
+thing to build that serves one bearing at a time.
+
+Each state is built (snrgain.scenario.antennas.build_antennas) as an ordinary antenna of its own (the
+table's ``bearing`` replaced by the state's; an array steered toward it by its own ``auto_for``), named
+``"<name> <compass point> (<bearing> deg)"`` and carrying a :class:`SwitchedState` (its group, the antenna's name),
+so every later stage (products, spreads, decisions, sweeps) sees ordinary antennas and the plan and the build
+sheet count the group once.  A long wire is one wire served from either end: its states are its two ends (two
+bearings 180 deg apart); a family with a ``port`` key (a two-wire line) keeps its bearing and switches to its
+reverse port, the others have the feed and the termination swap ends (the reversed state's feed point is the far
+end of the same wire).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from pydantic import TypeAdapter, ValidationError
+
+from snrgain.antennas import FAMILIES, Antenna
+from snrgain.antennas.base import pydantic_problems
+from snrgain.fields import Bearing
+
+CANDIDATE_KEYS = ("directions",)
+"""Keys a candidate table may hold besides its family's, ``place`` and ``chain`` (taken out before the family
+validates the rest)."""
+MAX_DIRECTIONS = 8
+"""The most states a switched antenna may have (eight points of the compass)."""
+
+COMPASS_POINTS = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE", "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
+
+
+@dataclass(frozen=True)
+class SwitchedState:
+    """One state of a switched antenna: the antenna (``group``, the candidate's own name) and which state this is."""
+
+    group: str
+    """The name written on the candidate: one antenna to build."""
+    state: str
+    """The state's label within its group, e.g. "NE (45 deg)"."""
+    bearing_deg: float
+    """The bearing this state favours [deg, 0..360)."""
+    index: int
+    """Its place in ``directions`` (from 0)."""
+    states: tuple[str, ...]
+    """Every state's label, in the order written."""
+    bearings_deg: tuple[float, ...]
+    """Every state's bearing [deg]."""
+    how: str = "turned"
+    """How the states differ: "steered" (an array's delays follow each bearing), "turned" (the antenna set for each
+    bearing: for the opposite one its feed and termination swap sides), "ends" (the feed and the termination swap
+    ends of one wire) or "port" (the reverse port of the same wire)."""
+
+
+def switched_state(antenna) -> SwitchedState | None:
+    """The state of a switched antenna this antenna is, or None for an antenna that is not switched."""
+    return getattr(antenna, "switched", None)
+
+
+def state_label(bearing_deg: float) -> str:
+    """A state's label: the nearest of 16 compass points and the bearing.
+
+    >>> state_label(45.0), state_label(227.5), state_label(359.96)
+    ('NE (45 deg)', 'SW (227.5 deg)', 'N (0 deg)')
+    """
+    b = round(float(bearing_deg) % 360.0, 1) % 360.0
+    point = COMPASS_POINTS[int(np.floor(b / 22.5 + 0.5)) % 16]
+    return f"{point} ({b:g} deg)"
+
+
+_BEARINGS = TypeAdapter(list[Bearing])
+
+
+def _directions_problem(directions, where: str) -> tuple[list[float] | None, list[tuple[str, str]]]:
+    """The bearings of ``directions`` [rad] as written, or the problems (named ``<where>.directions``)."""
+    key = f"{where}.directions"
+    if not isinstance(directions, list):
+        return None, [
+            (key, f'a list of 2 to {MAX_DIRECTIONS} bearings, e.g. ["45 deg", "225 deg"]; got {directions!r}')
+        ]
+    if not 2 <= len(directions) <= MAX_DIRECTIONS:
+        return None, [
+            (key, f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; got {len(directions)} ({directions!r})")
+        ]
+    try:
+        bearings = _BEARINGS.validate_python(directions)
+    except ValidationError as exc:
+        return None, pydantic_problems(exc, key, directions)
+    labels = [state_label(np.degrees(b)) for b in bearings]
+    for i, lab in enumerate(labels):
+        if lab in labels[:i]:
+            j = labels.index(lab)
+            return None, [
+                (
+                    f"{key}.{i + 1}",
+                    f"{directions[i]!r} is the same bearing as direction {j + 1} ({directions[j]!r}) to 0.1 deg; "
+                    "give each state a bearing of its own",
+                )
+            ]
+    return [float(b) for b in bearings], []
+
+
+def _switch_problem(family, spec: dict, where: str) -> str | None:
+    """Why this family (its class's capabilities and its keys) cannot be switched as written, or None."""
+    cls, fields = family.build, family.params.model_fields
+    if "bearing" not in fields or cls.composite:
+        return f"a {family.name} has no bearing of its own to switch" + (
+            " (a combination is set through its antennas: switch those)" if cls.composite else ""
+        )
+    if "bearing" in spec:
+        return "directions replace the bearing: give one or the other"
+    if cls.phased and spec.get("steering", fields["steering"].default if "steering" in fields else None) == "given":
+        return (
+            "an array whose delays are given points one way whatever its bearing; with directions, use "
+            "steering = 'auto' so that each state's delays follow from its bearing"
+        )
+    if spec.get("auto_for") == "snr":
+        return (
+            "auto_for = 'snr' aims an array at the target nearest its bearing, so two states could aim at the same "
+            "target; with directions each state is aimed by its bearing: use auto_for = 'rdf', 'front_to_back' or "
+            "'end-fire'"
+        )
+    if cls.long_wire and "port" in spec:
+        return "directions choose the port (forward, then reverse): leave port out"
+    return None
+
+
+def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], list[tuple[str, str]]]:
+    """A switched candidate's table as one table per state, with what each state needs after it is built:
+    ([(table, {"switched": SwitchedState, "reverse_of": bearing or None}), ...], problems).  A table without
+    ``directions`` comes back as it is."""
+    if "directions" not in spec:
+        return [(spec, {})], []
+    spec = dict(spec)
+    directions = spec.pop("directions")
+    key = f"{where}.directions"
+    if where == "reference":
+        return [], [(key, "the reference is one fixed antenna (the site's noise is read on it); switch a candidate")]
+    name = spec.get("family")
+    family = FAMILIES.get(name) if isinstance(name, str) else None
+    if family is None:
+        return [(spec, {})], []  # the family's own check names the problem
+    bearings, problems = _directions_problem(directions, where)
+    if problems:
+        return [], problems
+    if not isinstance(spec.get("name"), str) or not spec["name"]:
+        return [], [(f"{where}.name", "a switched antenna (directions) needs a name: its states are named after it")]
+    why = _switch_problem(family, spec, where)
+    if why:
+        return [], [(key, f"{directions!r}: {why}")]
+    how = "steered" if family.build.phased else "turned"
+    if family.build.long_wire:
+        apart = abs((np.degrees(bearings[1] - bearings[0]) + 180.0) % 360.0 - 180.0)
+        if len(bearings) != 2 or abs(apart - 180.0) > 0.05:
+            return [], [
+                (
+                    key,
+                    f"{directions!r}: a {family.name} is one wire served from either end, so its directions are two "
+                    'bearings 180 deg apart (e.g. ["45 deg", "225 deg"]); for other bearings write other wires',
+                )
+            ]
+        how = "port" if "port" in family.params.model_fields else "ends"
+    degs = [float(np.degrees(b)) % 360.0 for b in bearings]
+    labels = tuple(state_label(d) for d in degs)
+    group = spec.get("name")
+    out = []
+    for i, (b, label) in enumerate(zip(bearings, labels)):
+        state = dict(spec)
+        if isinstance(group, str) and group:
+            state["name"] = f"{group} {label}"
+        reverse = how in ("ends", "port") and i == 1
+        state["bearing"] = f"{float(np.degrees(bearings[0] if reverse and how == 'port' else b))!r} deg"
+        if how == "port":
+            state["port"] = "reverse" if reverse else "forward"
+        info = {
+            "switched": SwitchedState(str(group), label, degs[i], i, labels, tuple(degs), how),
+            "reverse_of": bearings[0] if reverse and how == "ends" else None,
+        }
+        out.append((state, info))
+    return out, []
+
+
+def far_end(first: Antenna, bearing_rad: float, start) -> tuple[float, float]:
+    """The far end of a long wire whose feed stands at ``start`` [m east, m north] toward ``bearing_rad`` [m]."""
+    p = start
+    return (
+        float(p[0] + first.length_m * np.sin(bearing_rad)),
+        float(p[1] + first.length_m * np.cos(bearing_rad)),
+    )
