@@ -21,7 +21,8 @@ and div Pi continuous), derived afresh here.  Taking the derivatives under the i
 the horizontal dipole is, with P = int R_TE e J0 lambda/u0, Q = int D e J1 lambda and W = -int M e J1,
 M = R_TE lambda^2 / u0 + D u0 lambda (e = exp(-u0 zeta)):
 
-    E_rho = C cos(phi) [k0^2 P + dW/drho],  E_phi = -C sin(phi) [k0^2 P + W / rho],  E_z = C cos(phi) [k0^2 Q + dW/dzeta],
+    E_rho = C cos(phi) [k0^2 P + dW/drho],  E_phi = -C sin(phi) [k0^2 P + W / rho],
+    E_z = C cos(phi) [k0^2 Q + dW/dzeta],
 
 and of the vertical one E_z = C int R_TM e J0 lambda^3 / u0, E_rho = C int R_TM e J1 lambda^2.
 
@@ -141,7 +142,6 @@ def reflected_integrals(freq_hz: float, permittivity: float, conductivity: float
         return reflected_kernels(lam, k0, n2, rho, zeta, u0=u0) * (k0 * np.cos(t))
 
     a_break = max(4.0 * abs(np.sqrt(n2)) * k0, k0 * 1.5)
-    s_max = float(np.arccosh(a_break / k0))
 
     def above(s):  # lambda = k0 cosh s; u0 = k0 sinh s
         lam = k0 * np.cosh(s)
