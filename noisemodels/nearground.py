@@ -125,3 +125,13 @@ def field(
     tm = (r_v * a_tm * g)[:, None] * theta_hat + ((1 - r_v) * f_v * a_pole * g)[:, None] * theta_pole
     te = -(r_h + (1 - r_h) * f_h) * b_te * g
     return rad_d + near_d + near_i + tm + te[:, None] * phi_hat
+
+
+def direct_field(freq_hz: float, rel_m, *, source_height_m: float, kind: str = "vertical", axis_rad: float = 0.0):
+    """The dipole's own field in free space (no ground) at the points of :func:`field`, normalised alike: the
+    incident wave a pattern over ground (which holds the ground's reflection itself) is driven by."""
+    rel = np.atleast_2d(np.asarray(rel_m, dtype=float))
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    p = np.array([0.0, 0.0, 1.0]) if kind == "vertical" else np.array([np.sin(axis_rad), np.cos(axis_rad), 0.0])
+    rad, near = _dipole_terms(p, rel - np.array([0.0, 0.0, float(source_height_m)]), k)
+    return rad + near

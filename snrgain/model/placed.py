@@ -33,28 +33,60 @@ from __future__ import annotations
 
 import numpy as np
 
-from noisemodels.groundwave import dipole_field
+from noisemodels import nearground
 from snrgain.physics.ground import C_M_PER_S
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
 """The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
 
 
-def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
-    """(E_v, E_h) of a placed source at plan points (N, 2) [m], relative to the dipole's far field at 1 m."""
+def dipoles(src) -> list[tuple[str, float]]:
+    """The small dipoles a placed source is made of: (kind, share of its power); "both" is a vertical and a
+    horizontal dipole radiating independently (their powers add)."""
+    share = POLARISATION_SHARE[src.polarisation]
+    return [(kind, w) for kind, w in zip(("vertical", "horizontal"), share) if w > 0]
+
+
+def source_field(src, points_m, freq_hz: float, ground, *, kind: str | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """(E_v, E_h) of one of a placed source's dipoles (``kind``; default its only one) at plan points (N, 2) [m],
+    scaled by the square root of that dipole's share, relative to a vertical dipole's far field over a perfect
+    ground at 1 m.
+
+    E_v is the vertical field at the soil (:func:`noisemodels.nearground.field`: direct, image and surface wave,
+    both heights), halved (the ground doubles a grazing wave: E_v is then the incident wave's amplitude, as a
+    pattern over ground expects); E_h is the free-space field across the line of sight, the incident horizontal
+    wave whose ground reflection the pattern holds (a horizontal dipole's horizontal field at the soil itself
+    all but vanishes)."""
+    parts = dipoles(src)
+    if kind is None:
+        if len(parts) != 1:
+            raise ValueError("a source radiating both polarisations: ask for each dipole's field (kind=)")
+        kind = parts[0][0]
+    share = dict(parts).get(kind, 0.0)
     p = np.atleast_2d(np.asarray(points_m, dtype=float))
-    r = np.sqrt((p[:, 0] - src.position_m[0]) ** 2 + (p[:, 1] - src.position_m[1]) ** 2 + src.height_m**2)
+    rel = np.column_stack([p[:, 0] - src.position_m[0], p[:, 1] - src.position_m[1], np.zeros(len(p))])
+    axis = orientation_rad(src) if kind == "horizontal" else 0.0
+    kw = {"source_height_m": src.height_m, "kind": kind, "axis_rad": axis}
     eps = None if ground is None else ground.permittivity
     sig = None if ground is None else ground.conductivity_s_per_m
-    share = POLARISATION_SHARE[src.polarisation]
-    ev = np.sqrt(share[0]) * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig) if share[0] else 0
-    eh = (
-        np.sqrt(share[1])
-        * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig, polarisation="horizontal")
-        if share[1]
-        else 0
-    )
-    return np.broadcast_to(ev, r.shape).astype(complex), np.broadcast_to(eh, r.shape).astype(complex)
+    e = nearground.field(freq_hz, rel, permittivity=eps, conductivity_s_per_m=sig, **kw)
+    ev = e[:, 2] / 2
+    d = nearground.direct_field(freq_hz, rel, **kw)
+    rho = np.maximum(np.hypot(rel[:, 0], rel[:, 1]), 1e-9)
+    across = np.column_stack([-rel[:, 1] / rho, rel[:, 0] / rho])  # horizontal, across the line of sight
+    eh = d[:, 0] * across[:, 0] + d[:, 1] * across[:, 1]
+    return np.sqrt(share) * ev, np.sqrt(share) * eh
+
+
+def orientation_rad(src) -> float:
+    """A horizontal source's axis [rad, compass bearing]; ValueError naming the field when it is not given."""
+    o = getattr(src, "orientation_rad", None)
+    if o is None:
+        raise ValueError(
+            f"noise.local {src.name!r}.orientation: a {src.polarisation} source needs its axis's compass bearing "
+            "(orientation = '0 deg' .. '180 deg') for its horizontal dipole"
+        )
+    return float(o)
 
 
 def bearing_to(src, points_m) -> np.ndarray:
@@ -81,13 +113,13 @@ def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarra
     return np.linspace(0.0, length_m, n)
 
 
-def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) -> complex:
+def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:
     """The feed current [A] of a long wire driven by a placed source's field (module docstring), for unit field
     at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (trapezoid rule)."""
-    return complex(wire_feed_currents(wire, src, freq_hz, np.atleast_2d(feed_m), ground, x_m=x_m)[0])
+    return complex(wire_feed_currents(wire, src, freq_hz, np.atleast_2d(feed_m), ground, x_m=x_m, kind=kind)[0])
 
 
-def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None) -> np.ndarray:
+def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, kind=None) -> np.ndarray:
     """:func:`wire_feed_current` for the same wire with its feed at each of ``feeds_m`` (N, 2) [m]: (N,) complex.
 
     Feeds whose sample grids along the wire are the same (:func:`wire_samples`, set by the closest approach)
@@ -109,16 +141,16 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None) 
     out = np.zeros(len(feeds), dtype=complex)
     for x, which in grids.values():
         which = np.asarray(which)
-        out[which] = _currents_on(wire, src, freq_hz, feeds[which], ground, x, u)
+        out[which] = _currents_on(wire, src, freq_hz, feeds[which], ground, x, u, kind)
     return out
 
 
-def _currents_on(wire, src, freq_hz, feeds, ground, x, u) -> np.ndarray:
+def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarray:
     from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
 
     n, L = len(feeds), wire.length_m
     pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    ev, eh = source_field(src, pts, freq_hz, ground)
+    ev, eh = source_field(src, pts, freq_hz, ground, kind=kind)
     az = bearing_to(src, pts)
     w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=wire.bearing_rad, ground=wire.ground)
     f_v, f_h = field_along_wire(w, wire.wire_height_m())
@@ -151,17 +183,27 @@ def hears(antenna, src, freq_hz: float, reference_m) -> bool:
     at = antenna_point(antenna, reference_m)
     gv, gh = antenna.partial_gains(freq_hz, bearing_to(src, at[None, :]), np.array([src.elevation_rad]))
     share_v, share_h = POLARISATION_SHARE[src.polarisation]
-    return bool(share_v * gv[0] + share_h * gh[0] > 0)
+    if share_h:  # a horizontal dipole: a vertical ground wave off its ends, a horizontal field broadside to it
+        off_axis = float(bearing_to(src, at[None, :])[0]) - orientation_rad(src)
+        ends, side = np.cos(off_axis) ** 2, np.sin(off_axis) ** 2
+        ends, side = (0.0 if ends < 1e-9 else ends), (0.0 if side < 1e-9 else side)
+        return bool(share_v * gv[0] + share_h * (ends * gv[0] + side * gh[0]) > 0)
+    return bool(gv[0] > 0)  # a vertical dipole's field has no horizontal part across the line of sight
 
 
 def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:
     """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain;
     ``at_m`` puts the antenna (its feed point) there instead of at its position."""
-    a_v, a_h = received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m)
-    return float(abs(a_v) ** 2 + abs(a_h) ** 2)
+    total = 0.0
+    for kind, _ in dipoles(src):  # independent dipoles: their powers add
+        a_v, a_h = received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind)
+        total += abs(a_v) ** 2 + abs(a_h) ** 2
+    return float(total)
 
 
-def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> tuple[complex, complex]:
+def received_amplitudes(
+    antenna, src, freq_hz: float, reference_m, ground, *, at_m=None, kind=None
+) -> tuple[complex, complex]:
     """(vertical, horizontal) complex amplitudes an antenna delivers from a placed source, |a_v|^2 + |a_h|^2 its
     :func:`received_power`.  A long wire sums the field along its length (one amplitude, both polarisations in its
     current); a compact antenna takes its response toward the source times the field where it stands; a
@@ -174,16 +216,16 @@ def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at
         f = float(freq_hz)
         w = antenna.weights_at(f)
         norm = float(np.real(w.conj() @ antenna.norm_matrix(f) @ w))
-        parts = [received_amplitudes(p, src, f, reference_m, ground) for p in antenna.elements]
+        parts = [received_amplitudes(p, src, f, reference_m, ground, kind=kind) for p in antenna.elements]
         return tuple(complex(sum(wi * a[i] for wi, a in zip(w, parts)) / np.sqrt(norm)) for i in (0, 1))
     if antenna.integrates_near_sources:
         feed = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
-        i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
+        i_f = wire_feed_current(antenna, src, freq_hz, feed, ground, kind=kind)
         load = antenna.receiver_load_ohm(freq_hz)
         e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
         return complex(e[0]), 0j
     at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
-    ev, eh = source_field(src, at[None, :], freq_hz, ground)
+    ev, eh = source_field(src, at[None, :], freq_hz, ground, kind=kind)
     az = bearing_to(src, at[None, :])
     el = np.array([src.elevation_rad])
     if type(antenna).complex_response is Antenna.complex_response:  # no phase: the gains alone
@@ -216,12 +258,10 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
         scale = p / p[0]
         if src.measured_at_m is not None:  # Fa given where it was measured, not at the reference
-            e_ref = source_field(src, np.array([ref_m]), sc.freq_hz, ground)
-            e_at = source_field(src, np.array([src.measured_at_m]), sc.freq_hz, ground)
             scale = (
                 scale
-                * (np.abs(e_ref[0][0]) ** 2 + np.abs(e_ref[1][0]) ** 2)
-                / (np.abs(e_at[0][0]) ** 2 + np.abs(e_at[1][0]) ** 2)
+                * _field_power(src, ref_m, sc.freq_hz, ground)
+                / _field_power(src, src.measured_at_m, sc.freq_hz, ground)
             )
         shares[src.name], out_powers[src.name] = scale, p
     return shares, out_powers
@@ -239,7 +279,19 @@ def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarr
     for ks in (ks for ks in groups.values() if len(ks) > 1):
         wire = antennas[ks[0]]
         feeds = np.array([antenna_point(antennas[k], reference_m) for k in ks])
-        i_f = wire_feed_currents(wire, src, freq_hz, feeds, ground)
         el = np.full(len(ks), src.elevation_rad)
-        e = port_response(freq_hz, i_f, load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=el)
-        p[ks] = np.abs(e) ** 2
+        total = np.zeros(len(ks))
+        for kind, _ in dipoles(src):
+            i_f = wire_feed_currents(wire, src, freq_hz, feeds, ground, kind=kind)
+            e = port_response(freq_hz, i_f, load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=el)
+            total += np.abs(e) ** 2
+        p[ks] = total
+
+
+def _field_power(src, point_m, freq_hz: float, ground) -> float:
+    """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added."""
+    total = 0.0
+    for kind, _ in dipoles(src):
+        ev, eh = source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)
+        total += float(np.abs(ev[0]) ** 2 + np.abs(eh[0]) ** 2)
+    return total
