@@ -93,20 +93,46 @@ def _src(x, y, height=2.0, pol="vertical"):
 BEV = {"family": "beverage", "length": "250 m", "height": "2 m", "bearing": 0, "ground": "moist loam"}
 
 
-def test_wire_beside_a_source_differs_from_the_same_source_far_away():
-    # A source 15 m beside the middle of a north-pointing Beverage, against one far away on the same bearing
-    # (from the feed: straight ahead would be the favoured direction, so use the side: bearing 90 deg from the
-    # middle).  The near source excites the wire point by point; the far one as a plane wave from the side.
+def _exact_field_vector(src, points_m, height_m, freq_hz, ground, *, kind):
+    """placed.field_vector through the exact Sommerfeld integrals (noisemodels.sommerfeld): a vertical source."""
+    from noisemodels import sommerfeld
+
+    assert kind == "vertical"
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
+    out = np.zeros((len(p), 3), dtype=complex)
+    for i, ((x, y), zi) in enumerate(zip(p, z)):
+        dx, dy = x - src.position_m[0], y - src.position_m[1]
+        rho = float(np.hypot(dx, dy))
+        e = sommerfeld.field(
+            freq_hz,
+            ground.permittivity,
+            ground.conductivity_s_per_m,
+            kind="vertical",
+            source_height_m=src.height_m,
+            rho_m=rho,
+            height_m=float(zi),
+        )
+        out[i] = (e["rho"] * dx / rho, e["rho"] * dy / rho, e["z"])
+    return out
+
+
+@pytest.mark.parametrize(
+    "where, height, tol_db",
+    # measured (closed form against exact): 15 m abeam the middle, 2 m up: -0.17 dB; 30 m abeam, 6 m up: -0.19 dB;
+    # 40 m beyond the far end, 2 m up: -0.48 dB
+    [((15.0, 125.0), 2.0, 0.3), ((30.0, 125.0), 6.0, 0.3), ((0.0, 290.0), 2.0, 0.6)],
+)
+def test_wire_beside_a_source_with_the_exact_field(monkeypatch, where, height, tol_db):
+    # A Beverage driven by a near source: the line model's EMF is the field along the wire (and up its leads);
+    # the closed-form field (noisemodels.nearground) against the exact Sommerfeld field on the same 65 points.
     bev = from_spec(BEV)
-    ground = bev.ground
-    near = _src(15.0, 125.0)
-    far = _src(20e3, 125.0)
-    p_near = placed.received_power(bev, near, F, (0.0, 0.0), ground)
-    p_far = placed.received_power(bev, far, F, (0.0, 0.0), ground)
-    # Normalise each by the field at the middle of the wire, what a compact antenna there would see.
-    e_near = abs(placed.source_field(near, [[0.0, 125.0]], F, ground)[0][0]) ** 2
-    e_far = abs(placed.source_field(far, [[0.0, 125.0]], F, ground)[0][0]) ** 2
-    assert abs(10 * np.log10((p_near / e_near) / (p_far / e_far))) > 3.0
+    src = _src(*where, height=height)
+    x = np.linspace(0.0, 250.0, 65)
+    i_closed = placed.wire_feed_current(bev, src, F, (0.0, 0.0), bev.ground, x_m=x)
+    monkeypatch.setattr(placed, "field_vector", _exact_field_vector)
+    i_exact = placed.wire_feed_current(bev, src, F, (0.0, 0.0), bev.ground, x_m=x)
+    assert abs(20 * np.log10(abs(i_closed) / abs(i_exact))) < tol_db
 
 
 @pytest.mark.parametrize("where", [(15.0, 125.0), (-8.0, 40.0), (30.0, 260.0), (3.0, -20.0)])

@@ -53,8 +53,11 @@ def source_field(src, points_m, freq_hz: float, ground, *, kind: str | None = No
     ground at 1 m.
 
     E_v is the vertical field at the soil (:func:`noisemodels.nearground.field`: direct, image and surface wave,
-    both heights), halved (the ground doubles a grazing wave: E_v is then the incident wave's amplitude, as a
-    pattern over ground expects); E_h is the free-space field across the line of sight, the incident horizontal
+    both heights) over cos(el) (1 + R_v(el)) (:func:`grazing_factor`): the plane wave at the source's elevation
+    el that has that vertical field at the soil, which a pattern over ground (holding the ground's reflection)
+    is read with.  A long wire, driven by the field itself (:func:`field_vector`), then gives a source far away
+    the same ratio to a compact antenna as their patterns at low elevation (a test);
+    E_h is the free-space field across the line of sight, the incident horizontal
     wave whose ground reflection the pattern holds (a horizontal dipole's horizontal field at the soil itself
     all but vanishes)."""
     parts = dipoles(src)
@@ -70,12 +73,22 @@ def source_field(src, points_m, freq_hz: float, ground, *, kind: str | None = No
     eps = None if ground is None else ground.permittivity
     sig = None if ground is None else ground.conductivity_s_per_m
     e = nearground.field(freq_hz, rel, permittivity=eps, conductivity_s_per_m=sig, **kw)
-    ev = e[:, 2] / 2
+    ev = e[:, 2] / grazing_factor(src, freq_hz, ground)
     d = nearground.direct_field(freq_hz, rel, **kw)
     rho = np.maximum(np.hypot(rel[:, 0], rel[:, 1]), 1e-9)
     across = np.column_stack([-rel[:, 1] / rho, rel[:, 0] / rho])  # horizontal, across the line of sight
     eh = d[:, 0] * across[:, 0] + d[:, 1] * across[:, 1]
     return np.sqrt(share) * ev, np.sqrt(share) * eh
+
+
+def grazing_factor(src, freq_hz: float, ground) -> complex:
+    """cos(el) (1 + R_v(el)) at the source's elevation el: the vertical field at the soil of a unit plane wave
+    (2 over a perfect ground)."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    el = float(src.elevation_rad)
+    r_v = reflection_coefficients(ground, np.array([el]), freq_hz)[0][0]
+    return complex(np.cos(el) * (1 + r_v))
 
 
 def orientation_rad(src) -> float:
@@ -145,16 +158,43 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, 
     return out
 
 
-def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarray:
-    from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
+def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -> np.ndarray:
+    """The whole field (N, 3) [east, north, up] of one of a placed source's dipoles at plan points (N, 2) at
+    ``height_m`` above the soil (a scalar or (N,)), normalised as :mod:`noisemodels.nearground` and scaled by the
+    square root of the dipole's share."""
+    share = dict(dipoles(src)).get(kind, 0.0)
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
+    rel = np.column_stack([p[:, 0] - src.position_m[0], p[:, 1] - src.position_m[1], z])
+    axis = orientation_rad(src) if kind == "horizontal" else 0.0
+    eps = None if ground is None else ground.permittivity
+    sig = None if ground is None else ground.conductivity_s_per_m
+    e = nearground.field(
+        freq_hz,
+        rel,
+        source_height_m=src.height_m,
+        kind=kind,
+        axis_rad=axis,
+        permittivity=eps,
+        conductivity_s_per_m=sig,
+    )
+    return e * np.sqrt(share)
 
+
+LEAD_POINTS = 6
+"""Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
+
+
+def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarray:
+    """The feed currents of a long wire driven by a placed source's whole field (reciprocity: the line model's
+    distributed series EMF is the field along the wire at its height, direct, reflected and surface wave, and each
+    down-lead's EMF the integral of the vertical field up it)."""
+    kind = kind if kind is not None else dipoles(src)[0][0]
     n, L = len(feeds), wire.length_m
+    h = wire.wire_height_m()
     pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    ev, eh = source_field(src, pts, freq_hz, ground, kind=kind)
-    az = bearing_to(src, pts)
-    w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=wire.bearing_rad, ground=wire.ground)
-    f_v, f_h = field_along_wire(w, wire.wire_height_m())
-    emf = (-w.cos_dphi * f_v[w.inv] * ev - w.sin_dphi * f_h[w.inv] * eh).reshape(n, -1)  # per metre along the wire
+    e = field_vector(src, pts, h, freq_hz, ground, kind=kind)
+    emf = (e[:, 0] * u[0] + e[:, 1] * u[1]).reshape(n, -1)  # per metre along the wire, feed toward far end
     ln = wire.line(freq_hz)
     g, z0 = ln.gamma, ln.z0
     z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
@@ -165,12 +205,15 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarr
         d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
     current = np.trapezoid(emf * transfer[None, :], x, axis=1)
-    if wire.has_leads:
-        lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv].reshape(n, -1)  # per unit field
-        ev = ev.reshape(n, -1)
-        current = current + lead[:, 0] * ev[:, 0] * transfer[0]  # up the feed lead
+    if wire.has_leads and h > 0:
+        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        zs = (t + 1) * h / 2
+        ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
+        ez = field_vector(src, np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n), freq_hz, ground, kind=kind)
+        lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2  # the EMF up each lead
+        current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
-            current = current - lead[:, -1] * ev[:, -1] * transfer[-1]  # down the far lead
+            current = current - lead[n:] * transfer[-1]  # down the far lead
     return current
 
 
