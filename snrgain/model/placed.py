@@ -1,12 +1,15 @@
 """Placed noise sources: each antenna hears a source on the lot from where it stands.
 
 A source given by its place (``[[noise.local]] position`` or latitude and
-longitude) radiates as a small dipole near the ground; its field at any
-point follows :func:`noisemodels.groundwave.dipole_field` (near field,
-Norton's surface-wave attenuation, far field).  The sky carries it as a
-compact component seen from the reference antenna (its level read there,
-or its Fa at ``measured_at``); every other antenna's share is scaled by how
-much more or less it picks up of the same source:
+longitude) radiates as a short vertical or horizontal dipole (a horizontal
+one along its ``orientation``) at its height; its field at any point and
+height follows :func:`noisemodels.nearground.field` (direct wave, the
+image's quasi-static and reflected waves, Norton's surface wave).  "both"
+is a vertical and a horizontal dipole radiating independently, half the
+power each (their powers add).  The sky carries the source as a compact
+component seen from the reference antenna (its level read there, or its Fa
+at ``measured_at``); every other antenna's share is scaled by how much more
+or less it picks up of the same source:
 
     T_A = T_ref x P_A / P_ref,
 
@@ -15,18 +18,18 @@ plane wave of unit field delivers the antenna's realized gain:
 
 - a compact antenna (vertical, loop, array, pattern table...) at its
   position: P = G_v(d) |E_v|^2 + G_h(d) |E_h|^2, d the direction from the
-  antenna toward the source at the source's arrival elevation, E the field
-  at the antenna (an array at the centroid of its elements);
-- a long wire (beverage, unterminated, bog): the field is applied point by
-  point along the wire, each point seeing a wave arriving from the source
-  with the local amplitude and phase E(r(x)), and the line model sums the
-  distributed EMFs (and the down-leads' at both ends) through its transfer
-  functions, numerically (:func:`wire_feed_current`).  So a wire running past
-  a source is modelled, not approximated by a direction.
+  antenna toward the source at the source's arrival elevation, E_v the
+  vertical field at the soil over cos(el) (1 + R_v(el)) (the plane wave that
+  has that field there), E_h the incident horizontal field across the line
+  of sight (an array at the centroid of its elements);
+- a long wire (beverage, unterminated, bog): reciprocity on its line model:
+  the distributed series EMF is the source's whole field along the wire at
+  its height, and each down-lead's the vertical field integrated up it
+  (:func:`wire_feed_current`), summed through the line's transfer
+  functions.  Far away this gives back the wire's pattern over a compact
+  antenna's (a test).
 
-Antennas without a position stand at the reference's.  The distance used
-for the field is the slant distance sqrt(r^2 + height^2), so an antenna
-right beside a source stays finite.
+Antennas without a position stand at the reference's.
 """
 
 from __future__ import annotations
