@@ -154,7 +154,7 @@ class LocalSource(StrictModel):
                 "give exactly one of bearing (a direction from the station), position = [east, north] on the "
                 "site plan, or latitude and longitude"
             )
-        if self.placed and self.polarisation != "vertical" and self.orientation is None:
+        if self.placed and self.polarisation in ("horizontal", "both") and self.orientation is None:
             raise ValueError(
                 f"orientation: a {self.polarisation} source needs the compass bearing of its axis "
                 "(orientation = '30 deg'; 0 to 180 deg, either end)"
