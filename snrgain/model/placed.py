@@ -22,6 +22,13 @@ plane wave of unit field delivers the antenna's realized gain:
   vertical field at the soil over cos(el) (1 + R_v(el)) (the plane wave that
   has that field there), E_h the incident horizontal field across the line
   of sight (an array at the centroid of its elements);
+- a family that exposes its transmit currents on segments
+  (``transmit_segments(freq_hz)``: points, directions, current times
+  length) is read by reciprocity instead: the open-circuit voltage is the
+  source's field along the segments times their currents, scaled to its
+  complex response by the voltage a plane wave from the source's direction
+  gives (:func:`_through_currents`); no family exposes them yet (a test
+  gives the vertical's own sinusoidal current through the hook);
 - a long wire (beverage, unterminated, bog): reciprocity on its line model:
   the distributed series EMF is the source's whole field along the wire at
   its height, and each down-lead's the vertical field integrated up it
@@ -271,6 +278,8 @@ def received_amplitudes(
         e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
         return complex(e[0]), 0j
     at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
+    if getattr(antenna, "transmit_segments", None) is not None:
+        return _through_currents(antenna, src, freq_hz, at, ground, kind or dipoles(src)[0][0]), 0j
     ev, eh = source_field(src, at[None, :], freq_hz, ground, kind=kind)
     az = bearing_to(src, at[None, :])
     el = np.array([src.elevation_rad])
@@ -279,6 +288,52 @@ def received_amplitudes(
         return complex(np.sqrt(gv[0]) * abs(ev[0])), complex(np.sqrt(gh[0]) * abs(eh[0]))
     rv, rh = antenna.complex_response(freq_hz, az, el)
     return complex(rv[0] * ev[0]), complex(rh[0] * eh[0])
+
+
+def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad: float, ground, pol: str):
+    """The field (N, 3) [east, north, up] at points (N, 3) of a unit plane wave arriving from (azimuth, elevation),
+    incident plus ground-reflected (Fresnel coefficients), phase 0 at the origin: vertical polarisation ("v", its
+    vertical part cos(el) [exp(+j k z sin el) + R_v exp(-j k z sin el)] as the families' patterns take it) or
+    horizontal ("h")."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    pts = np.atleast_2d(np.asarray(points_m, dtype=float))
+    ca, sa = np.cos(azimuth_rad), np.sin(azimuth_rad)
+    ce, se = np.cos(elevation_rad), np.sin(elevation_rad)
+    toward = np.array([ce * sa, ce * ca, se])  # toward where the wave comes from
+    mirror = np.array([ce * sa, ce * ca, -se])
+    r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([elevation_rad]), freq_hz))
+    direct = np.exp(1j * k * pts @ toward)[:, None]
+    reflected = np.exp(1j * k * pts @ mirror)[:, None]
+    if pol == "v":
+        return direct * np.array([-se * sa, -se * ca, ce]) + r_v * reflected * np.array([se * sa, se * ca, ce])
+    p_h = np.array([ca, -sa, 0.0])
+    return (direct + r_h * reflected) * p_h
+
+
+def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str) -> complex:
+    """Reciprocity through an antenna's own transmit currents: the open-circuit voltage from a source is the sum of
+    the incident field along each segment times the segment's current (``antenna.transmit_segments(freq_hz)``:
+    points (N, 3) [m east, north, up] from the antenna's place, unit directions (N, 3), current times length
+    (N,)); its amplitude is the antenna's complex response toward the source times V_source / V_plane, V_plane
+    the voltage a unit plane wave from the source's direction at its elevation gives (the load's share of the
+    voltage is the same for both, so it cancels)."""
+    pts, dirs, cur = antenna.transmit_segments(freq_hz)
+    pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
+    e = field_vector(src, at[None, :] + pts[:, :2], pts[:, 2], freq_hz, ground, kind=kind)
+    v_src = np.einsum("ni,ni,n->", e, dirs, cur)
+    az = float(bearing_to(src, at[None, :])[0])
+    el = float(src.elevation_rad)
+    rv, rh = antenna.complex_response(freq_hz, np.array([az]), np.array([el]))
+    best = None
+    for pol, r in (("v", complex(rv[0])), ("h", complex(rh[0]))):
+        v_pw = np.einsum("ni,ni,n->", plane_wave_field(freq_hz, pts, az, el, ground, pol), dirs, cur)
+        if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
+            best = (r, v_pw)
+    if best is None or best[0] == 0:
+        return 0j
+    return complex(v_src * best[0] / best[1])
 
 
 def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
