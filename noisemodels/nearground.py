@@ -9,10 +9,12 @@ permittivity n^2 = eps_r - j sigma / (omega eps0) (phasors exp(+j omega t)).  Cl
 - E_direct: the exact field of the dipole in free space (radiation, induction and quasi-static terms; e.g.
   C. A. Balanis, "Antenna Theory", 3rd ed. (2005), eqs. (4-10) and (4-26), in vector form).
 - The image: the perfect-ground image (a vertical dipole's image upright, a horizontal one's reversed) at depth
-  h.  Its induction and quasi-static terms are weighted by the quasi-static image coefficient
-  K = (n^2 - 1) / (n^2 + 1) (the near zone of a dipole over a conducting half-space: P. R. Bannister's
-  quasi-static image theory, e.g. "Extension of quasi-static range finite conductivity earth image theory
-  techniques to other ranges", IEEE Trans. AP-26 (1978) 507; cited from memory).
+  h.  Its quasi-static term is weighted by the quasi-static image coefficient K = (n^2 - 1) / (n^2 + 1)
+  (the near zone of a dipole over a conducting half-space: P. R. Bannister's quasi-static image theory, e.g.
+  "Extension of quasi-static range finite conductivity earth image theory techniques to other ranges", IEEE
+  Trans. AP-26 (1978) 507; cited from memory); so is a vertical dipole's induction term (its charges' image),
+  while a horizontal dipole's induction term keeps the perfect image (the choice the Sommerfeld comparison
+  favours: measured, not derived).
 - Its radiation term, split into the part polarised in the plane of incidence (TM) and across it (TE), is
   weighted as in Norton's form for elevated terminals (K. A. Norton, Proc. IRE 24 (1936) 1367 and 25 (1937)
   1203; J. R. Wait, IEEE Antennas Propag. Mag. 40(5) (1998) 7-24):
@@ -94,7 +96,11 @@ def field(
         return rad_d + near_d + rad_i + near_i
     n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
     kq = (n2 - 1) / (n2 + 1)
+    # a vertical dipole's image: K on both its induction and quasi-static terms (its charges' image); a horizontal
+    # one's induction term, which its current's (vector potential's) image shapes, keeps the perfect image
     rad_i, near_i = _dipole_terms(pi, i_rel, k, static=kq)
+    if kind == "vertical":
+        near_i = kq * _dipole_terms(pi, i_rel, k)[1]
     r2 = np.linalg.norm(i_rel, axis=-1)
     rho = np.hypot(i_rel[:, 0], i_rel[:, 1])
     sin_psi = i_rel[:, 2] / r2

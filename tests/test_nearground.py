@@ -83,21 +83,22 @@ BANDS = ((3.0, 10.0), (10.0, 30.0), (30.0, 100.0), (100.0, 1000.0), (1000.0, 400
 # grid (tests/nearground/make_reference.py: 1.83 and 3.6 MHz, 5 mS/m eps 13 and 1 mS/m eps 5, source and
 # observation heights 0-15 m), each component counted where it is over 10 % of the whole field.  Measured, then
 # a margin of about 0.2 dB:
-#   vertical dipole, whole field:      1.2  3.3  1.9  0.4  0.5
-#   vertical dipole, vertical field:   1.2  3.1  1.7  0.4  0.6
-#   vertical dipole, radial field:     6.1  7.7  4.1  1.5  0.4
+#   vertical dipole, whole field:      0.8  2.3  1.8  0.6  0.4
+#   vertical dipole, vertical field:   0.7  3.1  1.9  0.6  0.5
+#   vertical dipole, radial field:     4.8  3.8  2.0  1.1  0.3
 #   horizontal dipole, whole field:    3.5  3.1  2.7  2.3  0.7
 #   horizontal dipole, vertical:       8.0  4.3  3.1  6.6  0.8
 #   horizontal dipole, radial:        12.3 13.2 11.8  2.5  0.1
 #   horizontal dipole, across:         7.2  9.5  9.1  5.6  0.3
-# The aim of 1 dB holds beyond 100 m for a vertical source and beyond 1 km for a horizontal one; close
+# The aim of 1 dB holds for a vertical source's whole field within 10 m and beyond 100 m, and for a
+# horizontal one beyond 1 km; close
 # in, the worst points are raised geometries near the quasi-static null of the vertical field (source 10 m up,
 # 15 m away) and a horizontal dipole's horizontal field 10-100 m out (where its lateral waves are not in the
 # closed form).
 TOLERANCE_DB = {
-    ("vertical", "total"): (1.4, 3.5, 2.1, 0.6, 0.7),
-    ("vertical", "z"): (1.4, 3.3, 1.9, 0.6, 0.8),
-    ("vertical", "rho"): (6.3, 7.9, 4.3, 1.7, 0.6),
+    ("vertical", "total"): (1.0, 2.5, 2.0, 0.8, 0.6),
+    ("vertical", "z"): (0.9, 3.3, 2.1, 0.8, 0.7),
+    ("vertical", "rho"): (5.0, 4.0, 2.2, 1.3, 0.5),
     ("horizontal", "total"): (3.7, 3.3, 2.9, 2.5, 0.9),
     ("horizontal", "z"): (8.2, 4.5, 3.3, 6.8, 1.0),
     ("horizontal", "rho"): (12.5, 13.4, 12.0, 2.7, 0.3),
