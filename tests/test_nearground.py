@@ -80,7 +80,7 @@ def test_reference_tends_to_image_theory_over_a_good_conductor():
 REFERENCE = Path(__file__).parent / "nearground" / "reference.json"
 BANDS = ((3.0, 10.0), (10.0, 30.0), (30.0, 100.0), (100.0, 1000.0), (1000.0, 40000.0))
 # Largest |closed form - exact| [dB] per band of distance (3-10, 10-30, 30-100, 100-1000 m, 1-30 km) over the stored
-# grid (tests/nearground/make_reference.py: 1.83 and 3.6 MHz, 5 mS/m eps 13 and 1 mS/m eps 5, source and
+# grid (tests/nearground/make_sommerfeld.py: 1.83 and 3.6 MHz, 5 mS/m eps 13 and 1 mS/m eps 5, source and
 # observation heights 0-15 m), each component counted where it is over 10 % of the whole field.  Measured, then
 # a margin of about 0.2 dB:
 #   vertical dipole, whole field:      0.8  2.3  1.8  0.6  0.4

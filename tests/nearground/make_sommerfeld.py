@@ -1,7 +1,7 @@
 """Write reference.json: the exact field of a short dipole over lossy ground (noisemodels.sommerfeld) on the grid
 tests/test_nearground.py checks the closed form on.  Run from the worktree root:
 
-    PYTHONPATH=$PWD python tests/nearground/make_reference.py [freq_hz ...]
+    PYTHONPATH=$PWD python tests/nearground/make_sommerfeld.py [freq_hz ...]
 
 (one frequency per process; the results of each run are merged into the file).  Each point stores the complex
 components z, rho (away from the source) and phi (across), phi measured from a horizontal dipole's axis."""
