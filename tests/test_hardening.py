@@ -289,7 +289,8 @@ PLACED = MINIMAL.replace('family = "vertical"', 'family = "vertical"\nposition =
             "wire",
         ),
         (
-            PLACED + '\n[[noise.local]]\nname = "x"\nposition = [30, 30]\npolarisation = "horizontal"\nlevel = "S7"\n',
+            PLACED + '\n[[noise.local]]\nname = "x"\nposition = [30, 30]\npolarisation = "horizontal"\n'
+            'orientation = "135 deg"\nlevel = "S7"\n',  # broadside to the vertical reference: no vertical field
             'noise.local 1 ("x").level',
             "picks up nothing",
         ),

@@ -93,20 +93,46 @@ def _src(x, y, height=2.0, pol="vertical"):
 BEV = {"family": "beverage", "length": "250 m", "height": "2 m", "bearing": 0, "ground": "moist loam"}
 
 
-def test_wire_beside_a_source_differs_from_the_same_source_far_away():
-    # A source 15 m beside the middle of a north-pointing Beverage, against one far away on the same bearing
-    # (from the feed: straight ahead would be the favoured direction, so use the side: bearing 90 deg from the
-    # middle).  The near source excites the wire point by point; the far one as a plane wave from the side.
+def _exact_field_vector(src, points_m, height_m, freq_hz, ground, *, kind):
+    """placed.field_vector through the exact Sommerfeld integrals (noisemodels.sommerfeld): a vertical source."""
+    from noisemodels import sommerfeld
+
+    assert kind == "vertical"
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
+    out = np.zeros((len(p), 3), dtype=complex)
+    for i, ((x, y), zi) in enumerate(zip(p, z)):
+        dx, dy = x - src.position_m[0], y - src.position_m[1]
+        rho = float(np.hypot(dx, dy))
+        e = sommerfeld.field(
+            freq_hz,
+            ground.permittivity,
+            ground.conductivity_s_per_m,
+            kind="vertical",
+            source_height_m=src.height_m,
+            rho_m=rho,
+            height_m=float(zi),
+        )
+        out[i] = (e["rho"] * dx / rho, e["rho"] * dy / rho, e["z"])
+    return out
+
+
+@pytest.mark.parametrize(
+    "where, height, tol_db",
+    # measured (closed form against exact): 15 m abeam the middle, 2 m up: -0.17 dB; 30 m abeam, 6 m up: -0.19 dB;
+    # 40 m beyond the far end, 2 m up: -0.48 dB
+    [((15.0, 125.0), 2.0, 0.3), ((30.0, 125.0), 6.0, 0.3), ((0.0, 290.0), 2.0, 0.6)],
+)
+def test_wire_beside_a_source_with_the_exact_field(monkeypatch, where, height, tol_db):
+    # A Beverage driven by a near source: the line model's EMF is the field along the wire (and up its leads);
+    # the closed-form field (noisemodels.nearground) against the exact Sommerfeld field on the same 65 points.
     bev = from_spec(BEV)
-    ground = bev.ground
-    near = _src(15.0, 125.0)
-    far = _src(20e3, 125.0)
-    p_near = placed.received_power(bev, near, F, (0.0, 0.0), ground)
-    p_far = placed.received_power(bev, far, F, (0.0, 0.0), ground)
-    # Normalise each by the field at the middle of the wire, what a compact antenna there would see.
-    e_near = abs(placed.source_field(near, [[0.0, 125.0]], F, ground)[0][0]) ** 2
-    e_far = abs(placed.source_field(far, [[0.0, 125.0]], F, ground)[0][0]) ** 2
-    assert abs(10 * np.log10((p_near / e_near) / (p_far / e_far))) > 3.0
+    src = _src(*where, height=height)
+    x = np.linspace(0.0, 250.0, 65)
+    i_closed = placed.wire_feed_current(bev, src, F, (0.0, 0.0), bev.ground, x_m=x)
+    monkeypatch.setattr(placed, "field_vector", _exact_field_vector)
+    i_exact = placed.wire_feed_current(bev, src, F, (0.0, 0.0), bev.ground, x_m=x)
+    assert abs(20 * np.log10(abs(i_closed) / abs(i_exact))) < tol_db
 
 
 @pytest.mark.parametrize("where", [(15.0, 125.0), (-8.0, 40.0), (30.0, 260.0), (3.0, -20.0)])
@@ -218,6 +244,8 @@ def test_fa_measured_elsewhere_is_carried_to_the_reference():
         ("position = [0.3, 0.2]", "at least 1 m away"),
         ("measured_at = [1, 1]", "measured_at goes with fa"),
         ("latitude = 44.3", "both latitude and longitude"),
+        ('polarisation = "horizontal"', "orientation: a horizontal source needs"),
+        ('polarisation = "both"', "orientation: a both source needs"),
     ],
 )
 def test_placed_source_bad_input(change, message):
@@ -247,3 +275,106 @@ def test_one_wire_at_many_places_equals_each_place_alone():
     batch = placed.wire_feed_currents(bev, src, 1.83e6, feeds, bev.ground)
     alone = [placed.wire_feed_current(bev, src, 1.83e6, f, bev.ground) for f in feeds]
     assert np.allclose(batch, alone, rtol=1e-12, atol=0)
+
+
+def test_orientation_only_on_placed_sources():
+    text = SCEN.format(level='level = "S7"').replace(
+        'position = ["60 m", "30 m"]', 'bearing = 30\npolarisation = "horizontal"\norientation = 20'
+    )
+    with pytest.raises(ScenarioError, match="orientation goes with a placed source"):
+        snrgain.evaluate(text)
+
+
+@pytest.mark.parametrize("az_deg", [0.0, 40.0, 150.0])
+def test_far_horizontal_source_gives_the_vertical_ones_ratios(az_deg):
+    # 2 km away a horizontal dipole's ground wave off its ends is vertical, so the Beverage over a whip reads as for
+    # a vertical source (the project's NEC-2 runs gave the two within 0.5 dB at 2 km; measured here with the axis
+    # 20 deg off the line to the antennas: +0.18, +0.47 and -0.15 dB at 0, 40 and 150 deg).
+    bev = from_spec(BEV)
+    whip = from_spec({"family": "vertical", "height": "6 m", "ground": "moist loam"})
+    az = np.radians(az_deg)
+    pos = (2e3 * np.sin(az), 125.0 + 2e3 * np.cos(az))
+    ratios = []
+    for pol in ("vertical", "horizontal"):
+        src = LocalSource(
+            "s",
+            0.0,
+            float(np.radians(5.0)),
+            0.0,
+            60.0,
+            position_m=pos,
+            height_m=4.0,
+            polarisation=pol,
+            orientation_rad=az + np.radians(20.0),
+        )
+        ratios.append(
+            placed.received_power(bev, src, F, (0.0, 0.0), bev.ground)
+            / placed.received_power(whip, src, F, (0.0, 0.0), bev.ground)
+        )
+    assert 10 * np.log10(ratios[1] / ratios[0]) == pytest.approx(0.0, abs=0.5)
+
+
+def test_horizontal_source_in_a_scenario():
+    # A horizontal source with its orientation runs end to end; turned broadside to the vertical reference it gives
+    # the reference no vertical field, so a level read there cannot place it (the check names the field).
+    text = SCEN.format(level='level = "S7"').replace(
+        'name = "supply"\n', 'name = "supply"\npolarisation = "horizontal"\norientation = 63.43494882\n'
+    )
+    r = snrgain.evaluate(text)
+    assert np.isfinite(r.candidates[0].snr_gain_nominal_db[0])
+    broadside = text.replace("orientation = 63.43494882", "orientation = 153.43494882")
+    with pytest.raises(ScenarioError, match="picks up nothing"):
+        snrgain.evaluate(broadside)
+
+
+def _segment_whip(height="6 m"):
+    """A vertical that exposes its transmit currents on segments (the hook placed.received_amplitudes reads): the
+    family's own sinusoidal current on its Gauss-Legendre points, built here from the family's documented model
+    (I(z) = sin(k (h + t - z)))."""
+    from snrgain.antennas.vertical import Vertical
+
+    class SegmentWhip(Vertical):
+        def transmit_segments(self, freq_hz):
+            k = 2 * np.pi * freq_hz / C_M_PER_S
+            z = self._z
+            pts = np.column_stack([np.zeros_like(z), np.zeros_like(z), z])
+            dirs = np.tile([0.0, 0.0, 1.0], (len(z), 1))
+            return pts, dirs, np.sin(k * (self.height_m + self.top_m - z)) * self._wz
+
+    return SegmentWhip(from_spec({"family": "vertical", "height": height, "ground": "moist loam"}).params)
+
+
+@pytest.mark.parametrize("az_deg", [0.0, 30.0, 150.0, 180.0])
+def test_far_source_through_the_currents_gives_the_patterns_ratio(az_deg):
+    # 30 km away, a Beverage (its line model driven by the whole field) over a whip read through its currents
+    # (reciprocity) gives their patterns' ratio at the source's elevation.  Measured: -0.07 dB ahead, -0.19 dB at
+    # 30 deg; in the rear, where the Beverage's pattern is 36-38 dB down, -0.30 dB at 150 deg and +0.32 dB at 180
+    # (a ground wave runs along the wire with slowness cos(dphi), the 5-deg plane wave with cos(dphi) cos(5 deg)).
+    bev = from_spec(BEV)
+    whip = _segment_whip()
+    az = np.radians(az_deg)
+    src = _src(30e3 * np.sin(az), 125.0 + 30e3 * np.cos(az))
+    got = placed.received_power(bev, src, F, (0.0, 0.0), bev.ground) / placed.received_power(
+        whip, src, F, (0.0, 125.0), bev.ground
+    )
+    el = np.array([src.elevation_rad])
+    expect = bev.gain_linear(F, np.array([az]), el)[0] / whip.gain_linear(F, np.array([az]), el)[0]
+    assert 10 * np.log10(got / expect) == pytest.approx(0.0, abs=0.35 if az_deg >= 150.0 else 0.3)
+
+
+def test_whip_through_its_currents_against_the_exact_field(monkeypatch):
+    # A source 10 m up, 15 m from a 6 m whip (a raised source close in, where the old slant-distance field overstated
+    # the whip by 7.7-8.8 dB against NEC-2): the reciprocity voltage with the closed-form field against the same
+    # with the exact Sommerfeld field up the whip.  Measured: the closed form 2.10 dB low (the closed form's
+    # vertical field is 2-3 dB low near the quasi-static null at this geometry: tests/test_nearground.py); the
+    # pattern reading at the soil comes out 1.00 dB low, closer by chance.
+    whip = _segment_whip()
+    plain = from_spec({"family": "vertical", "height": "6 m", "ground": "moist loam"})
+    src = _src(15.0, 0.0, height=10.0)
+    ground = whip.ground
+    p_closed = placed.received_power(whip, src, F, (0.0, 0.0), ground)
+    p_pattern = placed.received_power(plain, src, F, (0.0, 0.0), ground)
+    monkeypatch.setattr(placed, "field_vector", _exact_field_vector)
+    p_exact = placed.received_power(whip, src, F, (0.0, 0.0), ground)
+    assert 10 * np.log10(p_closed / p_exact) == pytest.approx(-2.1, abs=0.3)
+    assert 10 * np.log10(p_pattern / p_exact) == pytest.approx(-1.0, abs=0.3)

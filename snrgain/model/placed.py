@@ -1,12 +1,15 @@
 """Placed noise sources: each antenna hears a source on the lot from where it stands.
 
 A source given by its place (``[[noise.local]] position`` or latitude and
-longitude) radiates as a small dipole near the ground; its field at any
-point follows :func:`noisemodels.groundwave.dipole_field` (near field,
-Norton's surface-wave attenuation, far field).  The sky carries it as a
-compact component seen from the reference antenna (its level read there,
-or its Fa at ``measured_at``); every other antenna's share is scaled by how
-much more or less it picks up of the same source:
+longitude) radiates as a short vertical or horizontal dipole (a horizontal
+one along its ``orientation``) at its height; its field at any point and
+height follows :func:`noisemodels.nearground.field` (direct wave, the
+image's quasi-static and reflected waves, Norton's surface wave).  "both"
+is a vertical and a horizontal dipole radiating independently, half the
+power each (their powers add).  The sky carries the source as a compact
+component seen from the reference antenna (its level read there, or its Fa
+at ``measured_at``); every other antenna's share is scaled by how much more
+or less it picks up of the same source:
 
     T_A = T_ref x P_A / P_ref,
 
@@ -15,46 +18,98 @@ plane wave of unit field delivers the antenna's realized gain:
 
 - a compact antenna (vertical, loop, array, pattern table...) at its
   position: P = G_v(d) |E_v|^2 + G_h(d) |E_h|^2, d the direction from the
-  antenna toward the source at the source's arrival elevation, E the field
-  at the antenna (an array at the centroid of its elements);
-- a long wire (beverage, unterminated, bog): the field is applied point by
-  point along the wire, each point seeing a wave arriving from the source
-  with the local amplitude and phase E(r(x)), and the line model sums the
-  distributed EMFs (and the down-leads' at both ends) through its transfer
-  functions, numerically (:func:`wire_feed_current`).  So a wire running past
-  a source is modelled, not approximated by a direction.
+  antenna toward the source at the source's arrival elevation, E_v the
+  vertical field at the soil over cos(el) (1 + R_v(el)) (the plane wave that
+  has that field there), E_h the incident horizontal field across the line
+  of sight (an array at the centroid of its elements);
+- a family that exposes its transmit currents on segments
+  (``transmit_segments(freq_hz)``: points, directions, current times
+  length) is read by reciprocity instead: the open-circuit voltage is the
+  source's field along the segments times their currents, scaled to its
+  complex response by the voltage a plane wave from the source's direction
+  gives (:func:`_through_currents`); no family exposes them yet (a test
+  gives the vertical's own sinusoidal current through the hook);
+- a long wire (beverage, unterminated, bog): reciprocity on its line model:
+  the distributed series EMF is the source's whole field along the wire at
+  its height, and each down-lead's the vertical field integrated up it
+  (:func:`wire_feed_current`), summed through the line's transfer
+  functions.  Far away this gives back the wire's pattern over a compact
+  antenna's (a test).
 
-Antennas without a position stand at the reference's.  The distance used
-for the field is the slant distance sqrt(r^2 + height^2), so an antenna
-right beside a source stays finite.
+Antennas without a position stand at the reference's.
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-from noisemodels.groundwave import dipole_field
+from noisemodels import nearground
 from snrgain.physics.ground import C_M_PER_S
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
 """The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
 
 
-def source_field(src, points_m, freq_hz: float, ground) -> tuple[np.ndarray, np.ndarray]:
-    """(E_v, E_h) of a placed source at plan points (N, 2) [m], relative to the dipole's far field at 1 m."""
+def dipoles(src) -> list[tuple[str, float]]:
+    """The small dipoles a placed source is made of: (kind, share of its power); "both" is a vertical and a
+    horizontal dipole radiating independently (their powers add)."""
+    share = POLARISATION_SHARE[src.polarisation]
+    return [(kind, w) for kind, w in zip(("vertical", "horizontal"), share) if w > 0]
+
+
+def source_field(src, points_m, freq_hz: float, ground, *, kind: str | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """(E_v, E_h) of one of a placed source's dipoles (``kind``; default its only one) at plan points (N, 2) [m],
+    scaled by the square root of that dipole's share, relative to a vertical dipole's far field over a perfect
+    ground at 1 m.
+
+    E_v is the vertical field at the soil (:func:`noisemodels.nearground.field`: direct, image and surface wave,
+    both heights) over cos(el) (1 + R_v(el)) (:func:`grazing_factor`): the plane wave at the source's elevation
+    el that has that vertical field at the soil, which a pattern over ground (holding the ground's reflection)
+    is read with.  A long wire, driven by the field itself (:func:`field_vector`), then gives a source far away
+    the same ratio to a compact antenna as their patterns at low elevation (a test);
+    E_h is the free-space field across the line of sight, the incident horizontal
+    wave whose ground reflection the pattern holds (a horizontal dipole's horizontal field at the soil itself
+    all but vanishes)."""
+    parts = dipoles(src)
+    if kind is None:
+        if len(parts) != 1:
+            raise ValueError("a source radiating both polarisations: ask for each dipole's field (kind=)")
+        kind = parts[0][0]
+    share = dict(parts).get(kind, 0.0)
     p = np.atleast_2d(np.asarray(points_m, dtype=float))
-    r = np.sqrt((p[:, 0] - src.position_m[0]) ** 2 + (p[:, 1] - src.position_m[1]) ** 2 + src.height_m**2)
+    rel = np.column_stack([p[:, 0] - src.position_m[0], p[:, 1] - src.position_m[1], np.zeros(len(p))])
+    axis = orientation_rad(src) if kind == "horizontal" else 0.0
+    kw = {"source_height_m": src.height_m, "kind": kind, "axis_rad": axis}
     eps = None if ground is None else ground.permittivity
     sig = None if ground is None else ground.conductivity_s_per_m
-    share = POLARISATION_SHARE[src.polarisation]
-    ev = np.sqrt(share[0]) * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig) if share[0] else 0
-    eh = (
-        np.sqrt(share[1])
-        * dipole_field(r, freq_hz, permittivity=eps, conductivity_s_per_m=sig, polarisation="horizontal")
-        if share[1]
-        else 0
-    )
-    return np.broadcast_to(ev, r.shape).astype(complex), np.broadcast_to(eh, r.shape).astype(complex)
+    e = nearground.field(freq_hz, rel, permittivity=eps, conductivity_s_per_m=sig, **kw)
+    ev = e[:, 2] / grazing_factor(src, freq_hz, ground)
+    d = nearground.direct_field(freq_hz, rel, **kw)
+    rho = np.maximum(np.hypot(rel[:, 0], rel[:, 1]), 1e-9)
+    across = np.column_stack([-rel[:, 1] / rho, rel[:, 0] / rho])  # horizontal, across the line of sight
+    eh = d[:, 0] * across[:, 0] + d[:, 1] * across[:, 1]
+    return np.sqrt(share) * ev, np.sqrt(share) * eh
+
+
+def grazing_factor(src, freq_hz: float, ground) -> complex:
+    """cos(el) (1 + R_v(el)) at the source's elevation el: the vertical field at the soil of a unit plane wave
+    (2 over a perfect ground)."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    el = float(src.elevation_rad)
+    r_v = reflection_coefficients(ground, np.array([el]), freq_hz)[0][0]
+    return complex(np.cos(el) * (1 + r_v))
+
+
+def orientation_rad(src) -> float:
+    """A horizontal source's axis [rad, compass bearing]; ValueError naming the field when it is not given."""
+    o = getattr(src, "orientation_rad", None)
+    if o is None:
+        raise ValueError(
+            f"noise.local {src.name!r}.orientation: a {src.polarisation} source needs its axis's compass bearing "
+            "(orientation = '0 deg' .. '180 deg') for its horizontal dipole"
+        )
+    return float(o)
 
 
 def bearing_to(src, points_m) -> np.ndarray:
@@ -81,13 +136,13 @@ def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarra
     return np.linspace(0.0, length_m, n)
 
 
-def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None) -> complex:
+def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:
     """The feed current [A] of a long wire driven by a placed source's field (module docstring), for unit field
     at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (trapezoid rule)."""
-    return complex(wire_feed_currents(wire, src, freq_hz, np.atleast_2d(feed_m), ground, x_m=x_m)[0])
+    return complex(wire_feed_currents(wire, src, freq_hz, np.atleast_2d(feed_m), ground, x_m=x_m, kind=kind)[0])
 
 
-def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None) -> np.ndarray:
+def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, kind=None) -> np.ndarray:
     """:func:`wire_feed_current` for the same wire with its feed at each of ``feeds_m`` (N, 2) [m]: (N,) complex.
 
     Feeds whose sample grids along the wire are the same (:func:`wire_samples`, set by the closest approach)
@@ -109,20 +164,47 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None) 
     out = np.zeros(len(feeds), dtype=complex)
     for x, which in grids.values():
         which = np.asarray(which)
-        out[which] = _currents_on(wire, src, freq_hz, feeds[which], ground, x, u)
+        out[which] = _currents_on(wire, src, freq_hz, feeds[which], ground, x, u, kind)
     return out
 
 
-def _currents_on(wire, src, freq_hz, feeds, ground, x, u) -> np.ndarray:
-    from snrgain.antennas.longwire import field_along_wire, plane_wave, vertical_emf
+def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -> np.ndarray:
+    """The whole field (N, 3) [east, north, up] of one of a placed source's dipoles at plan points (N, 2) at
+    ``height_m`` above the soil (a scalar or (N,)), normalised as :mod:`noisemodels.nearground` and scaled by the
+    square root of the dipole's share."""
+    share = dict(dipoles(src)).get(kind, 0.0)
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
+    rel = np.column_stack([p[:, 0] - src.position_m[0], p[:, 1] - src.position_m[1], z])
+    axis = orientation_rad(src) if kind == "horizontal" else 0.0
+    eps = None if ground is None else ground.permittivity
+    sig = None if ground is None else ground.conductivity_s_per_m
+    e = nearground.field(
+        freq_hz,
+        rel,
+        source_height_m=src.height_m,
+        kind=kind,
+        axis_rad=axis,
+        permittivity=eps,
+        conductivity_s_per_m=sig,
+    )
+    return e * np.sqrt(share)
 
+
+LEAD_POINTS = 6
+"""Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
+
+
+def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarray:
+    """The feed currents of a long wire driven by a placed source's whole field (reciprocity: the line model's
+    distributed series EMF is the field along the wire at its height, direct, reflected and surface wave, and each
+    down-lead's EMF the integral of the vertical field up it)."""
+    kind = kind if kind is not None else dipoles(src)[0][0]
     n, L = len(feeds), wire.length_m
+    h = wire.wire_height_m()
     pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    ev, eh = source_field(src, pts, freq_hz, ground)
-    az = bearing_to(src, pts)
-    w = plane_wave(freq_hz, az, np.full_like(az, src.elevation_rad), bearing_rad=wire.bearing_rad, ground=wire.ground)
-    f_v, f_h = field_along_wire(w, wire.wire_height_m())
-    emf = (-w.cos_dphi * f_v[w.inv] * ev - w.sin_dphi * f_h[w.inv] * eh).reshape(n, -1)  # per metre along the wire
+    e = field_vector(src, pts, h, freq_hz, ground, kind=kind)
+    emf = (e[:, 0] * u[0] + e[:, 1] * u[1]).reshape(n, -1)  # per metre along the wire, feed toward far end
     ln = wire.line(freq_hz)
     g, z0 = ln.gamma, ln.z0
     z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
@@ -133,12 +215,15 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u) -> np.ndarray:
         d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
     current = np.trapezoid(emf * transfer[None, :], x, axis=1)
-    if wire.has_leads:
-        lead = vertical_emf(w, 0.0, wire.wire_height_m())[w.inv].reshape(n, -1)  # per unit field
-        ev = ev.reshape(n, -1)
-        current = current + lead[:, 0] * ev[:, 0] * transfer[0]  # up the feed lead
+    if wire.has_leads and h > 0:
+        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        zs = (t + 1) * h / 2
+        ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
+        ez = field_vector(src, np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n), freq_hz, ground, kind=kind)
+        lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2  # the EMF up each lead
+        current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
-            current = current - lead[:, -1] * ev[:, -1] * transfer[-1]  # down the far lead
+            current = current - lead[n:] * transfer[-1]  # down the far lead
     return current
 
 
@@ -151,17 +236,27 @@ def hears(antenna, src, freq_hz: float, reference_m) -> bool:
     at = antenna_point(antenna, reference_m)
     gv, gh = antenna.partial_gains(freq_hz, bearing_to(src, at[None, :]), np.array([src.elevation_rad]))
     share_v, share_h = POLARISATION_SHARE[src.polarisation]
-    return bool(share_v * gv[0] + share_h * gh[0] > 0)
+    if share_h:  # a horizontal dipole: a vertical ground wave off its ends, a horizontal field broadside to it
+        off_axis = float(bearing_to(src, at[None, :])[0]) - orientation_rad(src)
+        ends, side = np.cos(off_axis) ** 2, np.sin(off_axis) ** 2
+        ends, side = (0.0 if ends < 1e-9 else ends), (0.0 if side < 1e-9 else side)
+        return bool(share_v * gv[0] + share_h * (ends * gv[0] + side * gh[0]) > 0)
+    return bool(gv[0] > 0)  # a vertical dipole's field has no horizontal part across the line of sight
 
 
 def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:
     """Power an antenna delivers from a placed source, in units where a unit plane wave delivers its realized gain;
     ``at_m`` puts the antenna (its feed point) there instead of at its position."""
-    a_v, a_h = received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m)
-    return float(abs(a_v) ** 2 + abs(a_h) ** 2)
+    total = 0.0
+    for kind, _ in dipoles(src):  # independent dipoles: their powers add
+        a_v, a_h = received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind)
+        total += abs(a_v) ** 2 + abs(a_h) ** 2
+    return float(total)
 
 
-def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> tuple[complex, complex]:
+def received_amplitudes(
+    antenna, src, freq_hz: float, reference_m, ground, *, at_m=None, kind=None
+) -> tuple[complex, complex]:
     """(vertical, horizontal) complex amplitudes an antenna delivers from a placed source, |a_v|^2 + |a_h|^2 its
     :func:`received_power`.  A long wire sums the field along its length (one amplitude, both polarisations in its
     current); a compact antenna takes its response toward the source times the field where it stands; a
@@ -174,16 +269,18 @@ def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at
         f = float(freq_hz)
         w = antenna.weights_at(f)
         norm = float(np.real(w.conj() @ antenna.norm_matrix(f) @ w))
-        parts = [received_amplitudes(p, src, f, reference_m, ground) for p in antenna.elements]
+        parts = [received_amplitudes(p, src, f, reference_m, ground, kind=kind) for p in antenna.elements]
         return tuple(complex(sum(wi * a[i] for wi, a in zip(w, parts)) / np.sqrt(norm)) for i in (0, 1))
     if antenna.integrates_near_sources:
         feed = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
-        i_f = wire_feed_current(antenna, src, freq_hz, feed, ground)
+        i_f = wire_feed_current(antenna, src, freq_hz, feed, ground, kind=kind)
         load = antenna.receiver_load_ohm(freq_hz)
         e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
         return complex(e[0]), 0j
     at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
-    ev, eh = source_field(src, at[None, :], freq_hz, ground)
+    if getattr(antenna, "transmit_segments", None) is not None:
+        return _through_currents(antenna, src, freq_hz, at, ground, kind or dipoles(src)[0][0]), 0j
+    ev, eh = source_field(src, at[None, :], freq_hz, ground, kind=kind)
     az = bearing_to(src, at[None, :])
     el = np.array([src.elevation_rad])
     if type(antenna).complex_response is Antenna.complex_response:  # no phase: the gains alone
@@ -191,6 +288,52 @@ def received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at
         return complex(np.sqrt(gv[0]) * abs(ev[0])), complex(np.sqrt(gh[0]) * abs(eh[0]))
     rv, rh = antenna.complex_response(freq_hz, az, el)
     return complex(rv[0] * ev[0]), complex(rh[0] * eh[0])
+
+
+def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad: float, ground, pol: str):
+    """The field (N, 3) [east, north, up] at points (N, 3) of a unit plane wave arriving from (azimuth, elevation),
+    incident plus ground-reflected (Fresnel coefficients), phase 0 at the origin: vertical polarisation ("v", its
+    vertical part cos(el) [exp(+j k z sin el) + R_v exp(-j k z sin el)] as the families' patterns take it) or
+    horizontal ("h")."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    pts = np.atleast_2d(np.asarray(points_m, dtype=float))
+    ca, sa = np.cos(azimuth_rad), np.sin(azimuth_rad)
+    ce, se = np.cos(elevation_rad), np.sin(elevation_rad)
+    toward = np.array([ce * sa, ce * ca, se])  # toward where the wave comes from
+    mirror = np.array([ce * sa, ce * ca, -se])
+    r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([elevation_rad]), freq_hz))
+    direct = np.exp(1j * k * pts @ toward)[:, None]
+    reflected = np.exp(1j * k * pts @ mirror)[:, None]
+    if pol == "v":
+        return direct * np.array([-se * sa, -se * ca, ce]) + r_v * reflected * np.array([se * sa, se * ca, ce])
+    p_h = np.array([ca, -sa, 0.0])
+    return (direct + r_h * reflected) * p_h
+
+
+def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str) -> complex:
+    """Reciprocity through an antenna's own transmit currents: the open-circuit voltage from a source is the sum of
+    the incident field along each segment times the segment's current (``antenna.transmit_segments(freq_hz)``:
+    points (N, 3) [m east, north, up] from the antenna's place, unit directions (N, 3), current times length
+    (N,)); its amplitude is the antenna's complex response toward the source times V_source / V_plane, V_plane
+    the voltage a unit plane wave from the source's direction at its elevation gives (the load's share of the
+    voltage is the same for both, so it cancels)."""
+    pts, dirs, cur = antenna.transmit_segments(freq_hz)
+    pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
+    e = field_vector(src, at[None, :] + pts[:, :2], pts[:, 2], freq_hz, ground, kind=kind)
+    v_src = np.einsum("ni,ni,n->", e, dirs, cur)
+    az = float(bearing_to(src, at[None, :])[0])
+    el = float(src.elevation_rad)
+    rv, rh = antenna.complex_response(freq_hz, np.array([az]), np.array([el]))
+    best = None
+    for pol, r in (("v", complex(rv[0])), ("h", complex(rh[0]))):
+        v_pw = np.einsum("ni,ni,n->", plane_wave_field(freq_hz, pts, az, el, ground, pol), dirs, cur)
+        if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
+            best = (r, v_pw)
+    if best is None or best[0] == 0:
+        return 0j
+    return complex(v_src * best[0] / best[1])
 
 
 def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
@@ -216,12 +359,10 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
         scale = p / p[0]
         if src.measured_at_m is not None:  # Fa given where it was measured, not at the reference
-            e_ref = source_field(src, np.array([ref_m]), sc.freq_hz, ground)
-            e_at = source_field(src, np.array([src.measured_at_m]), sc.freq_hz, ground)
             scale = (
                 scale
-                * (np.abs(e_ref[0][0]) ** 2 + np.abs(e_ref[1][0]) ** 2)
-                / (np.abs(e_at[0][0]) ** 2 + np.abs(e_at[1][0]) ** 2)
+                * _field_power(src, ref_m, sc.freq_hz, ground)
+                / _field_power(src, src.measured_at_m, sc.freq_hz, ground)
             )
         shares[src.name], out_powers[src.name] = scale, p
     return shares, out_powers
@@ -239,7 +380,19 @@ def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarr
     for ks in (ks for ks in groups.values() if len(ks) > 1):
         wire = antennas[ks[0]]
         feeds = np.array([antenna_point(antennas[k], reference_m) for k in ks])
-        i_f = wire_feed_currents(wire, src, freq_hz, feeds, ground)
         el = np.full(len(ks), src.elevation_rad)
-        e = port_response(freq_hz, i_f, load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=el)
-        p[ks] = np.abs(e) ** 2
+        total = np.zeros(len(ks))
+        for kind, _ in dipoles(src):
+            i_f = wire_feed_currents(wire, src, freq_hz, feeds, ground, kind=kind)
+            e = port_response(freq_hz, i_f, load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=el)
+            total += np.abs(e) ** 2
+        p[ks] = total
+
+
+def _field_power(src, point_m, freq_hz: float, ground) -> float:
+    """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added."""
+    total = 0.0
+    for kind, _ in dipoles(src):
+        ev, eh = source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)
+        total += float(np.abs(ev[0]) ** 2 + np.abs(eh[0]) ** 2)
+    return total

@@ -43,7 +43,8 @@ def local_levels_readable(
                         f"{where}.level",
                         f"the reference antenna ({reference.family}) picks up nothing of a {src.polarisation} "
                         "source where it stands, so a level read on it cannot be placed; give the level as fa, "
-                        "or the polarisation the reference hears",
+                        "or the polarisation the reference hears (a horizontal source broadside to a vertical "
+                        "reference gives it no vertical field: check its orientation)",
                     )
                 )
             continue

@@ -127,6 +127,9 @@ class LocalSource(StrictModel):
     """The source's height above the soil [m] (placed sources)."""
     polarisation: Literal["vertical", "horizontal", "both"] = "vertical"
     """What the placed source radiates: a vertical or horizontal small dipole, or both with equal power."""
+    orientation: Bearing | None = None
+    """A placed horizontal (or "both") source's axis, as a compass bearing (a wire, a fence, a panel row's cables);
+    needed by every source that radiates horizontally."""
     measured_at: PlanPoint | None = None
     """Where ``fa`` was measured [m east, m north] (placed sources; default: at the reference antenna)."""
     elevation: Elevation = _SRC.elevation_rad
@@ -156,6 +159,13 @@ class LocalSource(StrictModel):
             )
         if self.read_on is not None and self.level is None:
             raise ValueError("read_on names the antenna a level was read on; it goes with level, not with fa")
+        if self.placed and self.polarisation in ("horizontal", "both") and self.orientation is None:
+            raise ValueError(
+                f"orientation: a {self.polarisation} source needs the compass bearing of its axis "
+                "(orientation = '30 deg'; 0 to 180 deg, either end)"
+            )
+        if self.orientation is not None and not self.placed:
+            raise ValueError("orientation goes with a placed source (position or latitude and longitude)")
         if self.measured_at is not None and (self.fa is None or self.bearing is not None):
             raise ValueError("measured_at goes with fa on a placed source (a level is read on the reference antenna)")
         return self
@@ -200,6 +210,7 @@ def resolve_local_source(src: LocalSource, site: SiteSection, reference_m) -> no
         position_m=pos,
         height_m=src.height,
         polarisation=src.polarisation,
+        orientation_rad=src.orientation,
         measured_at_m=None if src.measured_at is None else tuple(float(x) for x in src.measured_at),
         read_on=src.read_on,
     )

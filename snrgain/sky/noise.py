@@ -101,6 +101,8 @@ class LocalSource:
     """A placed source's height above the soil [m]."""
     polarisation: str = "vertical"
     """What a placed source radiates: "vertical", "horizontal" or "both"."""
+    orientation_rad: float | None = None
+    """A placed source's horizontal dipole's axis [rad, compass bearing]; needed unless it is "vertical"."""
     measured_at_m: tuple[float, float] | None = None
     """Where a placed source's ``fa_db`` was measured [m east, m north]; None: at the reference antenna."""
     read_on: str | None = None
