@@ -18,7 +18,7 @@ A, B = "Beverage Europe", "TX vertical"
 HOURS = [0, 2, 4]
 
 
-def _logs(tmp_path, truth_db: float, seed: int):
+def _logs(tmp_path, truth_db: float, seed: int, stations: int = 3):
     """Logs synthesised from the pipeline's own A - B per target and hour at a known man-made offset."""
     from snrgain.model.pipeline import evaluate
     from snrgain.scenario import load, read_source
@@ -34,7 +34,7 @@ def _logs(tmp_path, truth_db: float, seed: int):
             targets=[(45, diff[("Europe", h)]), (300, diff[("Pacific", h)])],
             start=f"2026-12-02 {h:02d}:00:00",
             hours=1,
-            stations_per_target=3,
+            stations_per_target=stations,
             seed=seed * 10 + i,
         )
         la.append(a)
@@ -45,15 +45,21 @@ def _logs(tmp_path, truth_db: float, seed: int):
     return pa, pb
 
 
-@pytest.mark.parametrize("truth", [-9.0, 4.0])
-def test_known_offset_recovered_within_tolerance(tmp_path, truth):
-    pa, pb = _logs(tmp_path, truth, seed=int(truth) + 20)
-    r = vf.verify(WREN, a_name=A, b_name=B, log_a=pa, log_b=pb, n_boot=500)
-    f = learn.fit_offset(r, WREN)
-    assert f.identifiable and f.before_db == 0.0
-    assert abs(f.offset_db - truth) <= max(f.tolerance_db, 0.3), (f.offset_db, f.tolerance_db)
-    assert 0.0 < f.tolerance_db < 3.0
-    assert f.rms_after_db < f.rms_before_db
+def test_known_offset_recovered_within_tolerance(tmp_path):
+    """Logs synthesised from the pipeline's A - B at a known offset (2 stations per target and hour, decoder
+    scatter, fading, dropouts, one-sided stations): over 10 seeded trials the reported 90 % tolerance covers the
+    truth in at least 8, and the fit is never more than 1 dB off."""
+    covered = 0
+    for seed in range(10):
+        truth = float(np.random.default_rng(seed).uniform(-10.0, 6.0))
+        pa, pb = _logs(tmp_path, truth, seed=seed, stations=2)
+        r = vf.verify(WREN, a_name=A, b_name=B, log_a=pa, log_b=pb, n_boot=500, seed=seed, predict_too=False)
+        f = learn.fit_offset(r, WREN)
+        assert f.identifiable and f.before_db == 0.0 and 0.0 < f.tolerance_db < 3.0
+        assert abs(f.offset_db - truth) < 1.0, (truth, f.offset_db)
+        assert f.rms_after_db <= f.rms_before_db + 1e-9
+        covered += abs(f.offset_db - truth) <= f.tolerance_db
+    assert covered >= 8, covered
 
 
 def test_pairs_that_cannot_tell_the_level_say_so(tmp_path):
