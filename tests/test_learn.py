@@ -142,3 +142,48 @@ def test_offset_moves_the_man_made_level_by_its_db():
     assert np.allclose(p[1][mm] - p[0][mm], -5.5)
     other = [k for k in p[0] if not k.startswith("man-made")]
     assert all(np.allclose(p[1][k], p[0][k]) for k in other)
+
+
+def test_ground_class_and_offset_recovered_together(tmp_path):
+    """Logs from the site as if its soil were very dry (1e-4 S/m; the file says moist loam) and its man-made level
+    5 dB under the curve: the ground class of least misfit is the very dry one, the offset within its tolerance
+    (or 0.3 dB), and the written copy holds both, ranks without warnings and reports each one's move."""
+    from snrgain.cli.main import cli
+    from snrgain.model.pipeline import evaluate
+    from snrgain.scenario import load, read_source
+
+    data, label, base = read_source(Path(WREN))
+    d = learn.with_ground(learn.with_offset(data, -5.0), "very dry ground")
+    d = vf._scenario_copy(d, A, B, [12], [h + 0.5 for h in HOURS])
+    diff = learn._hourly_difference(evaluate(load(d, base_dir=base, label=label)), A, B)
+    la, lb = [], []
+    for i, h in enumerate(HOURS):
+        a, b = vf.synthesise(
+            site_lat=44.21,
+            site_lon=-71.32,
+            targets=[(45, diff[("Europe", h)]), (300, diff[("Pacific", h)])],
+            start=f"2026-12-02 {h:02d}:00:00",
+            hours=1,
+            stations_per_target=3,
+            seed=i,
+        )
+        la.append(a)
+        lb.append(b)
+    (tmp_path / "a.txt").write_text("".join(la))
+    (tmp_path / "b.txt").write_text("".join(lb))
+    dest = tmp_path / "learned.toml"
+    args = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(tmp_path / "a.txt"), "--log-b", str(tmp_path / "b.txt")]
+    out = CliRunner().invoke(cli, args + ["--fit-ground", "--write", str(dest), "--format", "json"])
+    assert out.exit_code == 0, out.output
+    import json
+
+    got = json.loads(out.stdout)["learned"]
+    assert got["ground_before"] == "moist loam" and got["ground_fitted"] == "very dry ground"
+    assert abs(got["fitted_db"] - -5.0) <= max(got["tolerance_90_db"], 0.3)
+    row = next(m for m in got["moves"] if m["antenna"] == A and m["target"] == "Europe")
+    assert row["moved_db"] == pytest.approx(row["moved_by_offset_db"] + row["moved_by_ground_db"])
+    assert abs(row["moved_by_ground_db"]) > 1.0
+    site = tomllib.loads(dest.read_text())["site"]
+    assert site["ground"] == "very dry ground" and site["name"] == "Wren Corner"
+    rank = CliRunner().invoke(cli, ["rank", str(dest)])
+    assert rank.exit_code == 0 and "warning" not in rank.output.lower()

@@ -79,6 +79,11 @@ from snrgain.cli.options import (
     help="Fit the site's man-made level (noise.man_made.offset) to the pairs and show how it moves the prediction.",
 )
 @click.option(
+    "--fit-ground",
+    is_flag=True,
+    help="With --fit or --write: also choose the site's ground class (among the land classes) that fits best.",
+)
+@click.option(
     "--write",
     "write_to",
     type=click.Path(dir_okay=False, path_type=str),
@@ -107,6 +112,7 @@ def verify(
     seed,
     example,
     fit,
+    fit_ground,
     write_to,
     fmt,
     plot,
@@ -164,8 +170,8 @@ def verify(
         save(vf.figure(res, looks=res.looks), plot, overwrite=overwrite)
         click.echo(f"wrote {plot}", err=True)
     learned, lines = None, []
-    if fit or write_to is not None:
-        learned, lines = _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir)
+    if fit or fit_ground or write_to is not None:
+        learned, lines = _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground)
     if fmt == "json":
         out = res.as_dict()
         if learned is not None:
@@ -175,7 +181,7 @@ def verify(
     click.echo("\n".join(vf.report_lines(res) + lines))
 
 
-def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir):
+def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=False):
     """Fit the man-made offset, write the copy if asked, and say how it moved the prediction."""
     from pathlib import Path
 
@@ -184,15 +190,21 @@ def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir):
     from snrgain.tools import learn
 
     with progress(None, "verify: fitting the site's man-made level"):
-        f = learn.fit_offset(res, scenario, p372_dir=p372_dir, min_pairs=min_pairs)
+        grounds = learn.LAND_GROUNDS if fit_ground else None
+        f = learn.fit_offset(res, scenario, p372_dir=p372_dir, min_pairs=min_pairs, grounds=grounds)
         data, label, base_dir = read_source(Path(scenario))
-        moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, p372_dir=p372_dir)
+        moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, ground=f.ground, p372_dir=p372_dir)
     out = {**f.as_dict(), "moves": moved}
     lines = learn.fit_lines(f) + learn.move_lines(moved)
     if write_to is not None:
         if not f.identifiable:
             raise ValueError(f"--write: {f.notes[0]}; no copy written")
         note = f"fitted to {sum(g['n_pairs'] for g in f.groups)} paired decodes, +-{f.tolerance_db:.1f} dB (90 %)"
-        write_output(write_to, learn.write_offset(read_scenario_text(scenario), f.offset_db, note), overwrite=overwrite)
+        text = learn.write_offset(read_scenario_text(scenario), f.offset_db, note)
+        if f.ground is not None:
+            text = learn.write_ground(
+                text, f.ground, "the class that fits the paired decodes best (verify --fit-ground)"
+            )
+        write_output(write_to, text, overwrite=overwrite)
         out["written"] = write_to
     return out, lines

@@ -12,6 +12,10 @@ and its spread over time stay P.372's).  Two ways to fit it:
   offset (a coarse grid, then :func:`scipy.optimize.minimize_scalar` within the best cell);
 - from noise readings (``snrgain noise-readings``, :mod:`snrgain.tools.noisereadings`).
 
+With ``grounds`` (``verify --fit-ground``) the site's ground class is chosen too: the offset is fitted for each
+named class in turn and the class of least misfit kept (a small discrete search; the ground shapes the
+antennas' patterns, efficiencies and so their difference, which the offset alone cannot mimic across targets).
+
 The difference between two antennas depends on the man-made level only through the balance of noise
 components (man-made against atmospheric, galactic, local sources and the chain's own noise); where man-made
 noise is all there is, both antennas scale alike and the pairs cannot tell its level.  The fit says so (its
@@ -112,30 +116,63 @@ def _key(line: str) -> str | None:
     return line.split("=", 1)[0].strip()
 
 
-def moves(data: dict, base_dir, label: str, before_db: float, after_db: float, *, p372_dir=None) -> list[dict]:
-    """How the new offset moves each candidate's predicted SNR gain toward each target: the scenario as written
-    (its own months and hours) run through the pipeline before and after (target medians, the one statistic)."""
+def moves(
+    data: dict, base_dir, label: str, before_db: float, after_db: float, *, ground: str | None = None, p372_dir=None
+) -> list[dict]:
+    """How the new offset (and ground class, if given) moves each candidate's predicted SNR gain toward each
+    target: the scenario as written (its own months and hours) run through the pipeline before and after (target
+    medians, the one statistic)."""
     from snrgain.model.pipeline import evaluate
     from snrgain.scenario import load
 
-    runs = [
-        evaluate(load(with_offset(data, o), base_dir=base_dir, label=label, p372_dir=p372_dir))
-        for o in (before_db, after_db)
-    ]
+    steps = [with_offset(data, before_db), with_offset(data, after_db)]
+    if ground is not None:
+        steps.append(with_ground(steps[1], ground))
+    runs = [evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir)) for d in steps]
     out = []
-    for x0, x1 in zip(runs[0].candidates, runs[1].candidates):
+    for k, x0 in enumerate(runs[0].candidates):
+        xs = [r.candidates[k] for r in runs]
         for t, tg in enumerate(runs[0].targets):
-            m0, m1 = float(x0.snr_gain_median_db[t]), float(x1.snr_gain_median_db[t])
-            out.append({"antenna": x0.name, "target": tg["name"], "before_db": m0, "after_db": m1, "moved_db": m1 - m0})
+            m = [float(x.snr_gain_median_db[t]) for x in xs]
+            row = {
+                "antenna": x0.name,
+                "target": tg["name"],
+                "before_db": m[0],
+                "after_db": m[-1],
+                "moved_db": m[-1] - m[0],
+            }
+            if ground is not None:
+                row["moved_by_offset_db"] = m[1] - m[0]
+                row["moved_by_ground_db"] = m[2] - m[1]
+            out.append(row)
+    return out
+
+
+def write_ground(text: str, ground: str, note: str) -> str:
+    """The scenario's text with ``[site] ground`` set to a named class, the rest as written."""
+    from snrgain.tools.tomltext import table_blocks, toml_string
+
+    lines = text.splitlines(keepends=True)
+    blocks = table_blocks(lines, "[site]")
+    if not blocks:
+        raise ValueError("the scenario has no [site] table to write the ground into")
+    a, b, _ = blocks[0]
+    body = [ln for ln in lines[a + 1 : b] if _key(ln) != "ground"]
+    out = "".join(lines[: a + 1] + [f"ground = {toml_string(ground)}  # {note}\n"] + body + lines[b:])
+    if tomllib.loads(out).get("site", {}).get("ground") != ground:
+        raise ValueError("the fitted ground could not be placed in [site]")
     return out
 
 
 def move_lines(rows: list[dict], reference: str = "the reference") -> list[str]:
     out = [f"predicted SNR gain over {reference}, before -> after:"]
     for r in rows:
+        split = ""
+        if "moved_by_ground_db" in r:
+            split = f"; offset {r['moved_by_offset_db']:+.1f}, ground {r['moved_by_ground_db']:+.1f}"
         out.append(
             f"  {r['antenna'][:26]:<26} {r['target'][:16]:<16} {r['before_db']:+6.1f} -> {r['after_db']:+6.1f} dB "
-            f"({r['moved_db']:+.1f})"
+            f"({r['moved_db']:+.1f}{split})"
         )
     return out
 
@@ -157,6 +194,9 @@ class OffsetFit:
     """Per (target, hour): n, measured median, its sigma, predicted before and after, slope [dB/dB]."""
     runs: int
     notes: list[str] = field(default_factory=list)
+    ground_before: str | None = None
+    ground: str | None = None
+    """The ground class fitted (None: the ground was not fitted)."""
 
     @property
     def identifiable(self) -> bool:
@@ -172,6 +212,8 @@ class OffsetFit:
             "rms_misfit_after_db": self.rms_after_db,
             "groups": self.groups,
             "pipeline_runs": self.runs,
+            "ground_before": self.ground_before,
+            "ground_fitted": self.ground,
             "notes": self.notes,
         }
 
@@ -192,14 +234,38 @@ def _hourly_difference(res, a: str, b: str) -> dict:
     return out
 
 
-def fit_offset(result, scenario_path, *, p372_dir=None, min_pairs: int = 20) -> OffsetFit:
-    """The man-made offset that best fits a :class:`snrgain.tools.verify.VerifyResult`'s per target and hour
-    medians (see the module's note)."""
-    from scipy.optimize import minimize_scalar
+LAND_GROUNDS = (
+    "wet ground",
+    "moist clay",
+    "moist loam",
+    "medium dry ground",
+    "sandy soil",
+    "built-up land",
+    "very dry ground",
+    "salt marsh",
+)
+"""The named ground classes a site on land may be (snrgain.physics.ground.GROUND_TYPES less the waters)."""
 
-    from snrgain.model.pipeline import evaluate
-    from snrgain.scenario import load, read_source
-    from snrgain.tools.verify import _scenario_copy
+
+def with_ground(data: dict, ground: str) -> dict:
+    """A deep copy of the scenario's tables with ``[site] ground`` set to a named class."""
+    d = copy.deepcopy(data)
+    d.setdefault("site", {})["ground"] = ground
+    return d
+
+
+def _site_ground(data: dict) -> str | None:
+    g = data.get("site", {}).get("ground", "moist loam")
+    return g if isinstance(g, str) else None
+
+
+def fit_offset(
+    result, scenario_path, *, p372_dir=None, min_pairs: int = 20, grounds: tuple[str, ...] | None = None
+) -> OffsetFit:
+    """The man-made offset that best fits a :class:`snrgain.tools.verify.VerifyResult`'s per target and hour
+    medians (see the module's note); with ``grounds``, also the site's ground class among them whose best offset
+    fits best (each class's offset fitted in turn; the class of least misfit chosen)."""
+    from snrgain.scenario import read_source
 
     data, label, base_dir = read_source(Path(scenario_path))
     before = current_offset(data)
@@ -217,50 +283,46 @@ def fit_offset(result, scenario_path, *, p372_dir=None, min_pairs: int = 20) -> 
     meas = np.array([g.median_db for g in groups])
     width = np.array([(g.high_db - g.low_db) if np.isfinite(g.high_db - g.low_db) else np.nan for g in groups])
     sigma = np.maximum(np.nan_to_num(width / (2.0 * Z90), nan=1.0), 0.1)
-    hours = sorted({g.hour for g in groups})
-    cache: dict[float, np.ndarray] = {}
-
-    def predicted(off: float) -> np.ndarray:
-        key = round(float(off), 3)
-        if key not in cache:
-            d = _scenario_copy(with_offset(data, key), result.a, result.b, result.months, [h + 0.5 for h in hours])
-            res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
-            diff = _hourly_difference(res, result.a, result.b)
-            cache[key] = np.array([diff[(g.target, g.hour)] for g in groups])
-        return cache[key]
-
-    def cost(off: float) -> float:
-        r = (predicted(off) - meas) / sigma
-        return float(np.sum(r * r))
-
-    lo, hi = OFFSET_RANGE_DB[0] + 10.0, OFFSET_RANGE_DB[1] - 10.0
-    grid = np.arange(lo, hi + 1e-9, 5.0)
-    costs = [cost(x) for x in grid]
-    k = int(np.argmin(costs))
-    sol = minimize_scalar(
-        cost,
-        bounds=(grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]),
-        method="bounded",
-        options={"xatol": 0.05},
-    )
-    best = float(sol.x)
-    slope = (predicted(best + 0.5) - predicted(best - 0.5)) / 1.0
-    info = float(np.sum((slope / sigma) ** 2))
+    ground0 = _site_ground(data)
     notes = []
+    if grounds:
+        if ground0 is None:
+            raise ValueError("--fit-ground: the site's ground is given by its constants, not a class name")
+        tried = {}
+        for gname in grounds:
+            tried[gname] = _fit_one(with_ground(data, gname), label, base_dir, result, groups, meas, sigma, p372_dir)
+        best_ground = min(tried, key=lambda k: tried[k]["cost"])
+        one = tried[best_ground]
+        rms = {k: float(np.sqrt(np.mean((v["after"] - meas) ** 2))) for k, v in tried.items()}
+        notes.append(
+            "ground classes tried (rms misfit at each one's best offset): "
+            + ", ".join(f"{k} {v:.2f} dB" for k, v in sorted(rms.items(), key=lambda kv: kv[1]))
+        )
+        runs = sum(v["runs"] for v in tried.values())
+        base_data = with_ground(data, ground0)
+    else:
+        best_ground, rms = None, {}
+        one = _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir)
+        runs = one["runs"]
+        base_data = data
+    p0 = one["predict_other"](base_data, before) if grounds else one["predicted"](before)
+    best, slope = one["best"], one["slope"]
+    info = float(np.sum((slope / sigma) ** 2))
     if np.max(np.abs(slope)) < MIN_SLOPE or info <= 0:
         tol = float("inf")
-        notes.append(
+        notes.insert(
+            0,
             "the predicted difference hardly changes with the man-made level here (both antennas hear it alike): "
-            "the pairs cannot tell the site's level; read the noise instead (snrgain noise-readings)"
+            "the pairs cannot tell the site's level; read the noise instead (snrgain noise-readings)",
         )
     else:
         tol = Z90 / np.sqrt(info)
-    if best <= grid[0] + 0.1 or best >= grid[-1] - 0.1:
+    if best <= one["edges"][0] + 0.1 or best >= one["edges"][1] - 0.1:
         notes.append(
-            f"the best offset lies at the edge of the search ({grid[0]:+g} to {grid[-1]:+g} dB): the pairs point "
-            "outside what an offset can explain; check the antennas' names and the scenario's other noise"
+            f"the best offset lies at the edge of the search ({one['edges'][0]:+g} to {one['edges'][1]:+g} dB): the "
+            "pairs point outside what an offset can explain; check the antennas' names and the scenario's other noise"
         )
-    p0, p1 = predicted(before), predicted(best)
+    p1 = one["after"]
     rows = [
         {
             "target": g.target,
@@ -281,9 +343,62 @@ def fit_offset(result, scenario_path, *, p372_dir=None, min_pairs: int = 20) -> 
         float(np.sqrt(np.mean((p0 - meas) ** 2))),
         float(np.sqrt(np.mean((p1 - meas) ** 2))),
         rows,
-        len(cache),
+        runs,
         notes,
+        ground_before=ground0,
+        ground=best_ground,
     )
+
+
+def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> dict:
+    """The best offset for one scenario's tables: a 5 dB grid, then a bounded scalar search in the best cell."""
+    from scipy.optimize import minimize_scalar
+
+    from snrgain.model.pipeline import evaluate
+    from snrgain.scenario import load
+    from snrgain.tools.verify import _scenario_copy
+
+    hours = sorted({g.hour for g in groups})
+    cache: dict[tuple, np.ndarray] = {}
+
+    def predict_other(d0: dict, off: float) -> np.ndarray:
+        key = (id(d0), round(float(off), 3))
+        if key not in cache:
+            d = _scenario_copy(with_offset(d0, key[1]), result.a, result.b, result.months, [h + 0.5 for h in hours])
+            res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
+            diff = _hourly_difference(res, result.a, result.b)
+            cache[key] = np.array([diff[(g.target, g.hour)] for g in groups])
+        return cache[key]
+
+    def predicted(off: float) -> np.ndarray:
+        return predict_other(data, off)
+
+    def cost(off: float) -> float:
+        r = (predicted(off) - meas) / sigma
+        return float(np.sum(r * r))
+
+    lo, hi = OFFSET_RANGE_DB[0] + 10.0, OFFSET_RANGE_DB[1] - 10.0
+    grid = np.arange(lo, hi + 1e-9, 5.0)
+    costs = [cost(x) for x in grid]
+    k = int(np.argmin(costs))
+    sol = minimize_scalar(
+        cost,
+        bounds=(grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]),
+        method="bounded",
+        options={"xatol": 0.05},
+    )
+    best = float(sol.x)
+    slope = (predicted(best + 0.5) - predicted(best - 0.5)) / 1.0
+    return {
+        "best": best,
+        "cost": cost(best),
+        "slope": slope,
+        "after": predicted(best),
+        "predicted": predicted,
+        "predict_other": predict_other,
+        "runs": len(cache),
+        "edges": (float(grid[0]), float(grid[-1])),
+    }
 
 
 def fit_lines(f: OffsetFit) -> list[str]:
@@ -294,6 +409,8 @@ def fit_lines(f: OffsetFit) -> list[str]:
         f"  offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, {tol}; rms misfit {f.rms_before_db:.1f} -> "
         f"{f.rms_after_db:.1f} dB over {len(f.groups)} group(s), {f.runs} pipeline runs",
     ]
+    if f.ground is not None:
+        out.append(f"  ground {f.ground_before} -> {f.ground} (the class whose best offset fits best)")
     for g in f.groups:
         out.append(
             f"  {g['target'][:18]:<18} {g['utc_hour']:02d} UTC  measured {g['measured_median_db']:+5.1f}  predicted "
