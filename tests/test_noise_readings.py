@@ -82,7 +82,15 @@ def test_rise_over_load_by_hand_on_the_reference_monopole(tmp_path):
     f = nr.fit(nr.load_readings(tmp_path / "r.toml"), sc)
     assert f.fa_db == pytest.approx(truth, abs=0.05)
     assert f.offset_db == pytest.approx(-7.3, abs=0.05) and f.environment == "rural"
-    assert f.rows[0]["man_made_share"] == pytest.approx(1.0, abs=1e-3)  # nothing else but the chain's own noise
+    assert f.rows[0]["man_made_share"] == pytest.approx(1.0, abs=1e-3)
+    # a reading on another band is listed, not used
+    (tmp_path / "r.toml").write_text(
+        text + _reading("2026-12-02T00:30:00Z", "antenna_db = -60\nload_db = -110").replace("1.83 MHz", "3.6 MHz")
+    )
+    g = nr.fit(nr.load_readings(tmp_path / "r.toml"), sc)
+    assert (
+        g.offset_db == pytest.approx(f.offset_db, abs=1e-6) and "not used: 3.6 MHz" in g.rows[1]["note"]
+    )  # nothing else but the chain's own noise
 
 
 def test_s_meter_by_hand_r1_and_a_table(tmp_path):

@@ -62,7 +62,7 @@ def man_made_table(data: dict) -> dict:
     return mm
 
 
-def current_offset(data: dict, base_dir=None, label="scenario") -> float:
+def current_offset(data: dict) -> float:
     """The scenario's man-made offset [dB] as the schema reads it (0 when not set)."""
     from snrgain.scenario.noise import ManMade
 

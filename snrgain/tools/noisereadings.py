@@ -430,8 +430,11 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
             "man_made_fa_db": None,
             "note": "",
         }
-        if logs.band_of_hz(r.freq_hz) != band:
-            row["note"] = f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band})"
+        if logs.band_of_hz(r.freq_hz) != band and abs(np.log(r.freq_hz / freq)) > np.log(1.05):
+            row["note"] = (
+                f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band}) and more than 5 % from "
+                f"its {freq / 1e6:g} MHz"
+            )
             rows.append(row)
             continue
         used.append((len(rows), t_a, other, mm, t_e))
