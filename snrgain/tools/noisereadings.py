@@ -184,12 +184,18 @@ def load_readings(path) -> list[Reading]:
     data = read_toml(path, allowed={"receiver", "reading"})
     problems: list[tuple[str, str]] = []
     tables: dict[str, list[tuple[float, float]]] = {}
+    for key in ("receiver", "reading"):
+        if not isinstance(data.get(key, []), list):
+            raise ReadingsError(str(path), [(key, f"a list of tables: [[{key}]] (see --example)")])
     for i, rx in enumerate(data.get("receiver", []), 1):
         where = f"receiver[{i}]"
         if not isinstance(rx, dict) or not isinstance(rx.get("name"), str):
             problems.append((where, "a receiver needs a name"))
             continue
         pts = []
+        if not isinstance(rx.get("s_meter", []), list):
+            problems.append((f"{where}.s_meter", "a list of [S-reading, dBm] pairs"))
+            continue
         for j, pair in enumerate(rx.get("s_meter", []), 1):
             try:
                 s, dbm = pair
@@ -224,7 +230,7 @@ def load_readings(path) -> list[Reading]:
                 try:
                     vals[key] = parse_quantity(r[key], dim)
                     if not vals[key] > 0:
-                        raise QuantityError("must be above 0")
+                        raise QuantityError(f"must be above 0 Hz; got {r[key]!r}")
                 except QuantityError as exc:
                     problems.append((f"{where}.{key}", str(exc)))
             elif need:
