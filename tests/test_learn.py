@@ -24,7 +24,7 @@ def _logs(tmp_path, truth_db: float, seed: int, stations: int = 3):
     from snrgain.scenario import load, read_source
 
     data, label, base = read_source(Path(WREN))
-    d = vf._scenario_copy(learn.with_offset(data, truth_db), A, B, [12], [h + 0.5 for h in HOURS])
+    d = vf.scenario_copy(learn.with_offset(data, truth_db), A, B, [12], [h + 0.5 for h in HOURS])
     diff = learn._hourly_difference(evaluate(load(d, base_dir=base, label=label)), A, B)
     la, lb = [], []
     for i, h in enumerate(HOURS):
@@ -154,7 +154,7 @@ def test_ground_class_and_offset_recovered_together(tmp_path):
 
     data, label, base = read_source(Path(WREN))
     d = learn.with_ground(learn.with_offset(data, -5.0), "very dry ground")
-    d = vf._scenario_copy(d, A, B, [12], [h + 0.5 for h in HOURS])
+    d = vf.scenario_copy(d, A, B, [12], [h + 0.5 for h in HOURS])
     diff = learn._hourly_difference(evaluate(load(d, base_dir=base, label=label)), A, B)
     la, lb = [], []
     for i, h in enumerate(HOURS):

@@ -356,7 +356,7 @@ def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> di
 
     from snrgain.model.pipeline import evaluate
     from snrgain.scenario import load
-    from snrgain.tools.verify import _scenario_copy
+    from snrgain.tools.verify import scenario_copy
 
     hours = sorted({g.hour for g in groups})
     cache: dict[tuple, np.ndarray] = {}
@@ -364,7 +364,7 @@ def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> di
     def predict_other(d0: dict, off: float) -> np.ndarray:
         key = (id(d0), round(float(off), 3))
         if key not in cache:
-            d = _scenario_copy(with_offset(d0, key[1]), result.a, result.b, result.months, [h + 0.5 for h in hours])
+            d = scenario_copy(with_offset(d0, key[1]), result.a, result.b, result.months, [h + 0.5 for h in hours])
             res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
             diff = _hourly_difference(res, result.a, result.b)
             cache[key] = np.array([diff[(g.target, g.hour)] for g in groups])

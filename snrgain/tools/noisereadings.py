@@ -48,8 +48,9 @@ from pathlib import Path
 
 import numpy as np
 
-T0_K = 290.0
-BOLTZMANN = 1.380649e-23
+from noisemodels.constants import BOLTZMANN_J_PER_K as BOLTZMANN
+from noisemodels.p372 import T0_K
+
 SMALL_RISE_DB = 3.0
 """Below this rise over the load a reading mostly measures the receiver (common practice)."""
 
