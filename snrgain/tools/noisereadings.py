@@ -524,9 +524,10 @@ def synthesise(
     p372_dir=None,
 ) -> str:
     """A readings file (TOML text) synthesised from a known man-made offset, through the same modelled gain and
-    chain: ``plan`` lists (UTC time "YYYY-MM-DDTHH:MM:SSZ", antenna, kind "rise" or "s_meter"); each reading gets
-    Gaussian reading noise of ``noise_db`` [dB] (rises to 0.5 dB, S-meters to whole S-units under R.1 would be
-    coarse, so the S-meter readings are written as S9+N or S-units with the dB over them through a table)."""
+    chain (the round-trip test's data): ``plan`` lists (UTC time "YYYY-MM-DDTHH:MM:SSZ", antenna, kind "rise" or
+    "s_meter").  Each reading gets Gaussian reading noise of ``noise_db`` [dB]; rises are written to 0.1 dB, and
+    S-meter readings through a receiver "ideal" whose table is R.1's (whole S-units below S9, so readings there
+    are quantised to 6 dB, as real ones are; whole dB above S9)."""
     from snrgain.scenario import read_source
 
     data, _, _ = read_source(Path(scenario_path))
