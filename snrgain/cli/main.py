@@ -11,6 +11,7 @@ from snrgain.cli.layout import layout
 from snrgain.cli.locate import locate
 from snrgain.cli.new import new
 from snrgain.cli.noise import noise
+from snrgain.cli.noisereadings import noise_readings
 from snrgain.cli.rank import rank
 from snrgain.cli.report import figures, report
 from snrgain.cli.sweep import sweep
@@ -100,6 +101,7 @@ cli.add_command(figures)
 cli.add_command(sweep)
 cli.add_command(layout)
 cli.add_command(verify)
+cli.add_command(noise_readings)
 
 
 def main() -> None:

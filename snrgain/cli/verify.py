@@ -73,6 +73,23 @@ from snrgain.cli.options import (
     default=None,
     help="Print an example file of that kind and exit.",
 )
+@click.option(
+    "--fit",
+    is_flag=True,
+    help="Fit the site's man-made level (noise.man_made.offset) to the pairs and show how it moves the prediction.",
+)
+@click.option(
+    "--fit-ground",
+    is_flag=True,
+    help="With --fit or --write: also choose the site's ground class (among the land classes) that fits best.",
+)
+@click.option(
+    "--write",
+    "write_to",
+    type=click.Path(dir_okay=False, path_type=str),
+    default=None,
+    help="Write a copy of the SCENARIO with the fitted man-made offset (implies --fit; --overwrite to replace).",
+)
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @plot_option("the figure of predicted bands and measured intervals per target and hour")
 @overwrite_option
@@ -94,6 +111,9 @@ def verify(
     min_pairs,
     seed,
     example,
+    fit,
+    fit_ground,
+    write_to,
     fmt,
     plot,
     overwrite,
@@ -107,6 +127,9 @@ def verify(
     Per target and UTC hour: the median of A - B with a bootstrap 90 % interval and N, the predicted median
     and 10-90 % band, and a verdict (agrees, measured better, measured worse, too few pairs).  Every line not
     used is counted by reason with its line numbers.
+
+    With --fit or --write: the man-made level that best fits the pairs (snrgain.tools.learn), its tolerance, and
+    how much it moves each candidate's predicted SNR gain; --write FILE writes the scenario's copy with it.
     """
     from snrgain.tools import verify as vf
 
@@ -122,6 +145,7 @@ def verify(
     if spots is not None and (log_a is not None or log_b is not None):
         raise click.UsageError("--spots replaces --log-a and --log-b; give one or the other")
     check_output(plot, overwrite=overwrite)
+    check_output(write_to, overwrite=overwrite)
     with progress(None, "verify: reading, pairing and predicting"):
         res = vf.verify(
             scenario,
@@ -145,7 +169,42 @@ def verify(
 
         save(vf.figure(res, looks=res.looks), plot, overwrite=overwrite)
         click.echo(f"wrote {plot}", err=True)
+    learned, lines = None, []
+    if fit or fit_ground or write_to is not None:
+        learned, lines = _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground)
     if fmt == "json":
-        emit_json(res.as_dict())
+        out = res.as_dict()
+        if learned is not None:
+            out["learned"] = learned
+        emit_json(out)
         return
-    click.echo("\n".join(vf.report_lines(res)))
+    click.echo("\n".join(vf.report_lines(res) + lines))
+
+
+def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=False):
+    """Fit the man-made offset, write the copy if asked, and say how it moved the prediction."""
+    from pathlib import Path
+
+    from snrgain.cli.options import read_scenario_text, write_output
+    from snrgain.scenario import read_source
+    from snrgain.tools import learn
+
+    with progress(None, "verify: fitting the site's man-made level"):
+        grounds = learn.LAND_GROUNDS if fit_ground else None
+        f = learn.fit_offset(res, scenario, p372_dir=p372_dir, min_pairs=min_pairs, grounds=grounds)
+        data, label, base_dir = read_source(Path(scenario))
+        moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, ground=f.ground, p372_dir=p372_dir)
+    out = {**f.as_dict(), "moves": moved}
+    lines = learn.fit_lines(f) + learn.move_lines(moved)
+    if write_to is not None:
+        if not f.identifiable:
+            raise ValueError(f"--write: {f.notes[0]}; no copy written")
+        note = f"fitted to {sum(g['n_pairs'] for g in f.groups)} paired decodes, +-{f.tolerance_db:.1f} dB (90 %)"
+        text = learn.write_offset(read_scenario_text(scenario), f.offset_db, note)
+        if f.ground is not None:
+            text = learn.write_ground(
+                text, f.ground, "the class that fits the paired decodes best (verify --fit-ground)"
+            )
+        write_output(write_to, text, overwrite=overwrite)
+        out["written"] = write_to
+    return out, lines

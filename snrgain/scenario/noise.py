@@ -45,6 +45,8 @@ class ManMade(StrictModel):
     environment: Literal[MAN_MADE_CHOICES] = _MM.environment
     elevation_scale: quantity("angle", gt=0.0, le=np.pi / 2) = _MM.elevation_scale_rad
     sector: Sector | None = None
+    offset: decibels(-40.0, 40.0) = _MM.offset_db
+    """The site's level over the environment's P.372 curve [dB] (fitted by noise-readings or verify --write)."""
 
 
 class Atmospheric(StrictModel):
@@ -225,7 +227,7 @@ def noise_settings(
     return noisemod.NoiseSettings(
         man_made=None
         if mm.environment == "none"
-        else noisemod.ManMadeNoise(mm.environment, mm.elevation_scale, resolve_sector(mm.sector)),
+        else noisemod.ManMadeNoise(mm.environment, mm.elevation_scale, resolve_sector(mm.sector), mm.offset),
         atmospheric=None
         if at.model == "none"
         else noisemod.AtmosphericNoise(

@@ -52,6 +52,8 @@ class ManMadeNoise:
     elevation_scale_rad: float = float(np.radians(10.0))
     """Brightness falls off from the horizon as exp(-elevation / scale) (snrgain's assumption)."""
     sector: Sector | None = None
+    offset_db: float = 0.0
+    """The site's level over the environment's P.372 median curve [dB] (a level fitted from readings)."""
 
 
 @dataclass(frozen=True)
@@ -170,11 +172,14 @@ def static_components(
     mm = settings.man_made
     if mm is not None:
         az_shape, az_params = _sector_params(mm.sector)
+        level = p372.man_made(place.freq_hz, environment=mm.environment)
+        if mm.offset_db:
+            level = p372.NoiseLevel(level.fa_db + mm.offset_db, level.du_db, level.dl_db)
         out.append(
             sky.diffuse_component(
                 f"man-made ({mm.environment})",
                 kind="man-made",
-                level=p372.man_made(place.freq_hz, environment=mm.environment),
+                level=level,
                 directions=grid,
                 elevation="low",
                 elevation_params={"scale_rad": mm.elevation_scale_rad},

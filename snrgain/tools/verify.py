@@ -290,7 +290,7 @@ def assign_targets(pairs: pd.DataFrame, targets: list[tuple[str, float]], width_
 # ---- the prediction, through the pipeline
 
 
-def _scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[float]) -> dict:
+def scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[float]) -> dict:
     """The scenario's tables with the logs' months and hours, every target listened then, and only the antennas
     the comparison needs (A, B, and the parts of a combination among them)."""
     import copy
@@ -315,6 +315,9 @@ def _scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[fl
                 f"antenna {n!r} is not in the scenario; its antennas are: {', '.join(sorted(str(k) for k in known))}"
             )
     return d
+
+
+_scenario_copy = scenario_copy  # the name the verify tests use
 
 
 def _difference(res, a: str, b: str, t: int) -> tuple[float, float, float, bool]:
@@ -353,7 +356,7 @@ def predict(sc_path, a: str, b: str, months: list[int], hours: list[int], *, p37
     own = True
     res = None
     for key, hrs in [(None, [h + 0.5 for h in hours])] + [(h, [h + 0.5]) for h in hours]:
-        d = _scenario_copy(data, a, b, months, hrs)
+        d = scenario_copy(data, a, b, months, hrs)
         sc = load(d, base_dir=base_dir, label=label, p372_dir=p372_dir)
         res = evaluate(sc)
         for t, tg in enumerate(res.targets):

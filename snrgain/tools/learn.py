@@ -1,0 +1,420 @@
+"""The site learns from what was measured: the man-made level fitted to paired decodes and written into a copy.
+
+The quantity the model is least sure of at a site is its man-made noise level: P.372's environment categories
+(city, residential, rural, quiet rural) are medians over many sites, and one site differs from its category's
+curve by several dB.  ``[noise.man_made] offset`` moves the site's level off the curve (its slope over frequency
+and its spread over time stay P.372's).  Two ways to fit it:
+
+- from paired decodes (``snrgain verify --write``, :func:`fit_offset`): the offset that minimises the weighted
+  squared difference between the measured median A - B and the predicted one over the targets and UTC hours, each
+  group weighted by the inverse square of its bootstrap interval's half-width (weighted least squares); the
+  prediction runs through :func:`snrgain.model.pipeline.evaluate` on a copy of the scenario for each trial
+  offset (a coarse grid, then :func:`scipy.optimize.minimize_scalar` within the best cell);
+- from noise readings (``snrgain noise-readings``, :mod:`snrgain.tools.noisereadings`).
+
+With ``grounds`` (``verify --fit-ground``) the site's ground class is chosen too: the offset is fitted for each
+named class in turn and the class of least misfit kept (a small discrete search; the ground shapes the
+antennas' patterns, efficiencies and so their difference, which the offset alone cannot mimic across targets).
+
+The difference between two antennas depends on the man-made level only through the balance of noise
+components (man-made against atmospheric, galactic, local sources and the chain's own noise); where man-made
+noise is all there is, both antennas scale alike and the pairs cannot tell its level.  The fit says so (its
+tolerance is then unbounded) and refuses to write a copy.
+
+The tolerance: the fitted offset's standard error from the slope of each group's prediction with the offset
+(Gauss-Newton: se = 1 / sqrt(sum (slope / sigma)^2), sigma the interval's half-width over 1.645), times 1.645 for
+a 90 % interval (the normal approximation, e.g. P. R. Bevington and D. K. Robinson, "Data Reduction and Error
+Analysis for the Physical Sciences", 3rd ed. (2003), ch. 8).
+"""
+
+from __future__ import annotations
+
+import copy
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+OFFSET_RANGE_DB = (-40.0, 40.0)
+"""The offsets the schema allows [dB] (snrgain.scenario.noise.ManMade.offset)."""
+Z90 = 1.645
+"""Standard-normal deviate of a two-sided 90 % interval."""
+MIN_SLOPE = 0.03
+"""Below this many dB of predicted difference per dB of man-made offset, the pairs cannot tell the level."""
+
+
+# ---- the scenario: its offset, copies with another, and the text written
+
+
+def man_made_table(data: dict) -> dict:
+    """The scenario's ``[noise.man_made]`` table (empty if absent); ValueError if man-made noise is off."""
+    mm = data.get("noise", {}).get("man_made", {})
+    if not isinstance(mm, dict):
+        raise ValueError("noise.man_made must be a table")
+    if mm.get("environment") == "none":
+        raise ValueError(
+            "noise.man_made: environment is 'none', so the scenario has no man-made level to fit; set the "
+            "environment the site is nearest ('city', 'residential', 'rural' or 'quiet rural') first"
+        )
+    if "band" in data and isinstance(data["band"], list):
+        raise ValueError("a scenario of several bands ([[band]]): fit one band's file at a time")
+    return mm
+
+
+def current_offset(data: dict) -> float:
+    """The scenario's man-made offset [dB] as the schema reads it (0 when not set)."""
+    from snrgain.scenario.noise import ManMade
+
+    mm = man_made_table(data)
+    return float(ManMade.model_validate(mm).offset)
+
+
+def with_offset(data: dict, offset_db: float) -> dict:
+    """A deep copy of the scenario's tables with ``[noise.man_made] offset`` set [dB]."""
+    if not (OFFSET_RANGE_DB[0] <= offset_db <= OFFSET_RANGE_DB[1]):
+        raise ValueError(
+            f"the fitted man-made offset {offset_db:+.1f} dB lies outside {OFFSET_RANGE_DB[0]:g} to "
+            f"{OFFSET_RANGE_DB[1]:+g} dB: choose another environment (noise.man_made.environment) and fit again"
+        )
+    d = copy.deepcopy(data)
+    man_made_table(d)
+    d.setdefault("noise", {}).setdefault("man_made", {})["offset"] = float(offset_db)
+    return d
+
+
+def write_offset(text: str, offset_db: float, note: str) -> str:
+    """The scenario's text with ``offset`` set in its ``[noise.man_made]`` table (added at the end if absent), the
+    rest as written; ``note`` goes in a comment beside the value."""
+    from snrgain.tools.tomltext import table_blocks
+
+    lines = text.splitlines(keepends=True)
+    if lines and not lines[-1].endswith("\n"):
+        lines[-1] += "\n"
+    value = f'offset = "{offset_db:+.1f} dB"  # {note}\n'
+    blocks = table_blocks(lines, "[noise.man_made]")
+    if blocks:
+        a, b, _ = blocks[0]
+        body = [ln for ln in lines[a + 1 : b] if _key(ln) != "offset"]
+        out = "".join(lines[: a + 1] + [value] + body + lines[b:])
+    else:
+        if "man_made" in tomllib.loads(text).get("noise", {}):
+            raise ValueError(
+                "the scenario sets noise.man_made inline or by dotted keys; write it as a [noise.man_made] table so "
+                "the fitted offset can be added"
+            )
+        out = "".join(lines) + f"\n[noise.man_made]\n{value}"
+    parsed = tomllib.loads(out)  # still a valid file, with the value in place
+    if "offset" not in parsed.get("noise", {}).get("man_made", {}):
+        raise ValueError("the fitted offset could not be placed in [noise.man_made]")
+    return out
+
+
+def _key(line: str) -> str | None:
+    if "=" not in line or line.lstrip().startswith("#"):
+        return None
+    return line.split("=", 1)[0].strip()
+
+
+def moves(
+    data: dict, base_dir, label: str, before_db: float, after_db: float, *, ground: str | None = None, p372_dir=None
+) -> list[dict]:
+    """How the new offset (and ground class, if given) moves each candidate's predicted SNR gain toward each
+    target: the scenario as written (its own months and hours) run through the pipeline before and after (target
+    medians, the one statistic)."""
+    from snrgain.model.pipeline import evaluate
+    from snrgain.scenario import load
+
+    steps = [with_offset(data, before_db), with_offset(data, after_db)]
+    if ground is not None:
+        steps.append(with_ground(steps[1], ground))
+    runs = [evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir)) for d in steps]
+    out = []
+    for k, x0 in enumerate(runs[0].candidates):
+        xs = [r.candidates[k] for r in runs]
+        for t, tg in enumerate(runs[0].targets):
+            m = [float(x.snr_gain_median_db[t]) for x in xs]
+            row = {
+                "antenna": x0.name,
+                "target": tg["name"],
+                "before_db": m[0],
+                "after_db": m[-1],
+                "moved_db": m[-1] - m[0],
+            }
+            if ground is not None:
+                row["moved_by_offset_db"] = m[1] - m[0]
+                row["moved_by_ground_db"] = m[2] - m[1]
+            out.append(row)
+    return out
+
+
+def write_ground(text: str, ground: str, note: str) -> str:
+    """The scenario's text with ``[site] ground`` set to a named class, the rest as written."""
+    from snrgain.tools.tomltext import table_blocks, toml_string
+
+    lines = text.splitlines(keepends=True)
+    blocks = table_blocks(lines, "[site]")
+    if not blocks:
+        raise ValueError("the scenario has no [site] table to write the ground into")
+    a, b, _ = blocks[0]
+    body = [ln for ln in lines[a + 1 : b] if _key(ln) != "ground"]
+    out = "".join(lines[: a + 1] + [f"ground = {toml_string(ground)}  # {note}\n"] + body + lines[b:])
+    if tomllib.loads(out).get("site", {}).get("ground") != ground:
+        raise ValueError("the fitted ground could not be placed in [site]")
+    return out
+
+
+def move_lines(rows: list[dict], reference: str = "the reference") -> list[str]:
+    out = [f"predicted SNR gain over {reference}, before -> after:"]
+    for r in rows:
+        split = ""
+        if "moved_by_ground_db" in r:
+            split = f"; offset {r['moved_by_offset_db']:+.1f}, ground {r['moved_by_ground_db']:+.1f}"
+        out.append(
+            f"  {r['antenna'][:26]:<26} {r['target'][:16]:<16} {r['before_db']:+6.1f} -> {r['after_db']:+6.1f} dB "
+            f"({r['moved_db']:+.1f}{split})"
+        )
+    return out
+
+
+# ---- the fit from paired decodes
+
+
+@dataclass(frozen=True)
+class OffsetFit:
+    """The man-made offset fitted to paired decodes."""
+
+    before_db: float
+    offset_db: float
+    tolerance_db: float
+    """Half-width of the fitted offset's 90 % interval [dB]; inf when the pairs cannot tell the level."""
+    rms_before_db: float
+    rms_after_db: float
+    groups: list[dict]
+    """Per (target, hour): n, measured median, its sigma, predicted before and after, slope [dB/dB]."""
+    runs: int
+    notes: list[str] = field(default_factory=list)
+    ground_before: str | None = None
+    ground: str | None = None
+    """The ground class fitted (None: the ground was not fitted)."""
+
+    @property
+    def identifiable(self) -> bool:
+        return bool(np.isfinite(self.tolerance_db))
+
+    def as_dict(self) -> dict:
+        return {
+            "quantity": "noise.man_made.offset",
+            "before_db": self.before_db,
+            "fitted_db": self.offset_db,
+            "tolerance_90_db": self.tolerance_db if self.identifiable else None,
+            "rms_misfit_before_db": self.rms_before_db,
+            "rms_misfit_after_db": self.rms_after_db,
+            "groups": self.groups,
+            "pipeline_runs": self.runs,
+            "ground_before": self.ground_before,
+            "ground_fitted": self.ground,
+            "notes": self.notes,
+        }
+
+
+def _hourly_difference(res, a: str, b: str) -> dict:
+    """{(target, hour): A - B} from one pipeline run: the nominal SNR gains per UTC hour (mean over the months in
+    dB), the gains of A and B over the reference subtracted."""
+    ref = res.reference.name
+    by = {x.name: x for x in [res.reference, *res.candidates]}
+    ga = by[ref if a == "reference" else a].snr_gain_db
+    gb = by[ref if b == "reference" else b].snr_gain_db
+    out = {}
+    with np.errstate(all="ignore"):
+        d = np.nanmean(ga - gb, axis=1)  # (targets, hours)
+    for t, tg in enumerate(res.targets):
+        for j, h in enumerate(res.utc_hours):
+            out[(tg["name"], int(np.floor(h)))] = float(d[t, j])
+    return out
+
+
+LAND_GROUNDS = (
+    "wet ground",
+    "moist clay",
+    "moist loam",
+    "medium dry ground",
+    "sandy soil",
+    "built-up land",
+    "very dry ground",
+    "salt marsh",
+)
+"""The named ground classes a site on land may be (snrgain.physics.ground.GROUND_TYPES less the waters)."""
+
+
+def with_ground(data: dict, ground: str) -> dict:
+    """A deep copy of the scenario's tables with ``[site] ground`` set to a named class."""
+    d = copy.deepcopy(data)
+    d.setdefault("site", {})["ground"] = ground
+    return d
+
+
+def _site_ground(data: dict) -> str | None:
+    g = data.get("site", {}).get("ground", "moist loam")
+    return g if isinstance(g, str) else None
+
+
+def fit_offset(
+    result, scenario_path, *, p372_dir=None, min_pairs: int = 20, grounds: tuple[str, ...] | None = None
+) -> OffsetFit:
+    """The man-made offset that best fits a :class:`snrgain.tools.verify.VerifyResult`'s per target and hour
+    medians (see the module's note); with ``grounds``, also the site's ground class among them whose best offset
+    fits best (each class's offset fitted in turn; the class of least misfit chosen)."""
+    from snrgain.scenario import read_source
+
+    data, label, base_dir = read_source(Path(scenario_path))
+    before = current_offset(data)
+    targets = {t["name"] for t in data.get("target", []) if isinstance(t, dict)}
+    groups = [
+        g
+        for g in result.groups
+        if g.hour is not None and g.target in targets and g.n >= min_pairs and np.isfinite(g.median_db)
+    ]
+    if not groups:
+        raise ValueError(
+            f"no target and hour has {min_pairs} pairs or more: nothing to fit the man-made level to (listen longer, "
+            "or lower --min-pairs)"
+        )
+    meas = np.array([g.median_db for g in groups])
+    width = np.array([(g.high_db - g.low_db) if np.isfinite(g.high_db - g.low_db) else np.nan for g in groups])
+    sigma = np.maximum(np.nan_to_num(width / (2.0 * Z90), nan=1.0), 0.1)
+    ground0 = _site_ground(data)
+    notes = []
+    if grounds:
+        if ground0 is None:
+            raise ValueError("--fit-ground: the site's ground is given by its constants, not a class name")
+        tried = {}
+        for gname in grounds:
+            tried[gname] = _fit_one(with_ground(data, gname), label, base_dir, result, groups, meas, sigma, p372_dir)
+        best_ground = min(tried, key=lambda k: tried[k]["cost"])
+        one = tried[best_ground]
+        rms = {k: float(np.sqrt(np.mean((v["after"] - meas) ** 2))) for k, v in tried.items()}
+        notes.append(
+            "ground classes tried (rms misfit at each one's best offset): "
+            + ", ".join(f"{k} {v:.2f} dB" for k, v in sorted(rms.items(), key=lambda kv: kv[1]))
+        )
+        runs = sum(v["runs"] for v in tried.values())
+        base_data = with_ground(data, ground0)
+    else:
+        best_ground, rms = None, {}
+        one = _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir)
+        runs = one["runs"]
+        base_data = data
+    p0 = one["predict_other"](base_data, before) if grounds else one["predicted"](before)
+    best, slope = one["best"], one["slope"]
+    info = float(np.sum((slope / sigma) ** 2))
+    if np.max(np.abs(slope)) < MIN_SLOPE or info <= 0:
+        tol = float("inf")
+        notes.insert(
+            0,
+            "the predicted difference hardly changes with the man-made level here (both antennas hear it alike): "
+            "the pairs cannot tell the site's level; read the noise instead (snrgain noise-readings)",
+        )
+    else:
+        tol = Z90 / np.sqrt(info)
+    if best <= one["edges"][0] + 0.1 or best >= one["edges"][1] - 0.1:
+        notes.append(
+            f"the best offset lies at the edge of the search ({one['edges'][0]:+g} to {one['edges'][1]:+g} dB): the "
+            "pairs point outside what an offset can explain; check the antennas' names and the scenario's other noise"
+        )
+    p1 = one["after"]
+    rows = [
+        {
+            "target": g.target,
+            "utc_hour": g.hour,
+            "n_pairs": g.n,
+            "measured_median_db": float(m),
+            "sigma_db": float(s),
+            "predicted_before_db": float(a),
+            "predicted_after_db": float(b),
+            "slope_db_per_db": float(sl),
+        }
+        for g, m, s, a, b, sl in zip(groups, meas, sigma, p0, p1, slope)
+    ]
+    return OffsetFit(
+        before,
+        best,
+        float(tol),
+        float(np.sqrt(np.mean((p0 - meas) ** 2))),
+        float(np.sqrt(np.mean((p1 - meas) ** 2))),
+        rows,
+        runs,
+        notes,
+        ground_before=ground0,
+        ground=best_ground,
+    )
+
+
+def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> dict:
+    """The best offset for one scenario's tables: a 5 dB grid, then a bounded scalar search in the best cell."""
+    from scipy.optimize import minimize_scalar
+
+    from snrgain.model.pipeline import evaluate
+    from snrgain.scenario import load
+    from snrgain.tools.verify import scenario_copy
+
+    hours = sorted({g.hour for g in groups})
+    cache: dict[tuple, np.ndarray] = {}
+
+    def predict_other(d0: dict, off: float) -> np.ndarray:
+        key = (id(d0), round(float(off), 3))
+        if key not in cache:
+            d = scenario_copy(with_offset(d0, key[1]), result.a, result.b, result.months, [h + 0.5 for h in hours])
+            res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
+            diff = _hourly_difference(res, result.a, result.b)
+            cache[key] = np.array([diff[(g.target, g.hour)] for g in groups])
+        return cache[key]
+
+    def predicted(off: float) -> np.ndarray:
+        return predict_other(data, off)
+
+    def cost(off: float) -> float:
+        r = (predicted(off) - meas) / sigma
+        return float(np.sum(r * r))
+
+    lo, hi = OFFSET_RANGE_DB[0] + 10.0, OFFSET_RANGE_DB[1] - 10.0
+    grid = np.arange(lo, hi + 1e-9, 5.0)
+    costs = [cost(x) for x in grid]
+    k = int(np.argmin(costs))
+    sol = minimize_scalar(
+        cost,
+        bounds=(grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]),
+        method="bounded",
+        options={"xatol": 0.05},
+    )
+    best = float(sol.x)
+    slope = (predicted(best + 0.5) - predicted(best - 0.5)) / 1.0
+    return {
+        "best": best,
+        "cost": cost(best),
+        "slope": slope,
+        "after": predicted(best),
+        "predicted": predicted,
+        "predict_other": predict_other,
+        "runs": len(cache),
+        "edges": (float(grid[0]), float(grid[-1])),
+    }
+
+
+def fit_lines(f: OffsetFit) -> list[str]:
+    tol = f"+-{f.tolerance_db:.1f} dB (90 %)" if f.identifiable else "not determined"
+    out = [
+        "",
+        "the site learns (noise.man_made.offset, fitted to the pairs per target and hour):",
+        f"  offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, {tol}; rms misfit {f.rms_before_db:.1f} -> "
+        f"{f.rms_after_db:.1f} dB over {len(f.groups)} group(s), {f.runs} pipeline runs",
+    ]
+    if f.ground is not None:
+        out.append(f"  ground {f.ground_before} -> {f.ground} (the class whose best offset fits best)")
+    for g in f.groups:
+        out.append(
+            f"  {g['target'][:18]:<18} {g['utc_hour']:02d} UTC  measured {g['measured_median_db']:+5.1f}  predicted "
+            f"{g['predicted_before_db']:+5.1f} -> {g['predicted_after_db']:+5.1f} dB"
+        )
+    out += [f"  note: {n}" for n in f.notes]
+    return out

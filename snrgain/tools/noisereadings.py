@@ -1,0 +1,581 @@
+"""Noise readings in: the site's man-made level from what the receiver shows (``snrgain noise-readings``).
+
+Two kinds of reading, each with its UTC time, the scenario's antenna it was taken on and its frequency:
+
+- **rise over a matched load**: the receiver's output noise with the antenna, and with a matched load in the
+  antenna's place at the antenna's terminals (same gain, same bandwidth; any one dB scale: dBm, dBFS, an audio
+  meter).  The rise Y (linear) is the Y-factor of the noise-figure measurement (e.g. D. M. Pozar, "Microwave
+  Engineering", 4th ed. (2012), sec. 10.2): Y = (T_A + T_e) / (T_L + T_e), with T_e = (F - 1) T0 the chain's
+  noise temperature referred to the antenna terminals (its noise figure F from the scenario's chain, Friis's
+  cascade) and T_L the load's temperature (290 K unless stated), so T_A = Y (T_L + T_e) - T_e;
+- **S-meter**: a reading in S-units, turned into dBm at the receiver's input by the receiver's calibration table
+  (S-unit -> dBm, measured with a signal generator; without one IARU Region 1 Technical Recommendation R.1:
+  S9 = -73 dBm, 6 dB per S-unit), in the stated bandwidth b: P = k b G (T_A + T_e), G the chain's gain, so
+  T_A = P / (k b G) - T_e.  The S-meter must read the noise's power (an average, not a peak hold; common practice
+  is to read it in the narrowest filter, with the AGC on).
+
+The antenna temperature T_A holds every noise component; the scenario, run through the pipeline at the
+reading's month and UTC hour (:func:`snrgain.model.pipeline.evaluate` on a copy), gives each component's share
+through that antenna's modelled gain (``noise_by_component_dbm``, the same integral over the sky and the chain
+the ranking uses; Fa refers to P.372's short monopole over a perfect ground).  What the reading holds beyond the
+components other than man-made noise is the man-made part; its ratio to the modelled man-made part is the
+offset of the site's man-made level over the environment's curve:
+
+    offset_i = current offset + 10 log10((T_A,i - T_other,i) / T_man-made,i)
+
+and Fa (man-made) at the site = the environment's P.372 median at the frequency + offset_i (shown per reading).
+A reading on an antenna where other noise dominates says little about man-made noise, and the inversion above
+is steep there; so the fitted offset is the least-squares fit in the readings' own dB (where reading errors are
+about constant): it minimises sum_i (10 log10(T_A,i + T_e,i) - 10 log10(T_other,i + T_mm,i 10^(delta/10) +
+T_e,i))^2 over delta (a 1 dB grid, then :func:`scipy.optimize.minimize_scalar`), each reading counting by how
+much of it is man-made.  Its uncertainty: the readings' scatter s about the fit, and the offset's standard error
+s / sqrt(sum_i share_i^2) (share_i: the man-made part of reading i, the derivative of its dB by the offset's),
+times 1.645 for a 90 % interval (linearised least squares, e.g. P. R. Bevington and D. K. Robinson, "Data
+Reduction and Error Analysis for the Physical Sciences", 3rd ed. (2003), ch. 8).
+
+Cautions: the modelled antenna temperature leaves out the thermal noise of the antenna's own ground loss (its
+(1 - efficiency) x 290 K), small against low-band sky noise but not for a very inefficient antenna on a quiet
+site; a rise under 3 dB leaves the antenna's noise hardly above the receiver's and the reading's offset is
+unsteady (the readings say so); local sources (``[[noise.local]]``) count among the other components, so read
+them first (``snrgain locate``).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from noisemodels.constants import BOLTZMANN_J_PER_K as BOLTZMANN
+from noisemodels.p372 import T0_K
+
+SMALL_RISE_DB = 3.0
+"""Below this rise over the load a reading mostly measures the receiver (common practice)."""
+
+EXAMPLE = """\
+# Noise readings for snrgain noise-readings (for scenarios/wren-corner.toml, an invented site).  Times in UTC.
+# A reading is either a rise over a matched load or an S-meter reading.
+
+# An S-meter's calibration: S-unit -> dBm at the receiver's input, measured with a signal generator.
+# Without a table for a receiver: IARU Region 1 R.1, S9 = -73 dBm, 6 dB per S-unit.
+[[receiver]]
+name = "bench receiver"
+s_meter = [["S1", -117], ["S3", -107], ["S5", -97], ["S7", -86], ["S9", -73], ["S9+20", -52]]
+
+# The receiver's output noise with the antenna, then with a 50 ohm load in the antenna's place at its
+# terminals (same gain, same filter; any one dB scale: dBm, dBFS, an audio meter's dB).
+[[reading]]
+time = 2026-12-02T23:10:00Z
+antenna = "TX vertical"
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+antenna_db = -73.0
+load_db = -120.0
+# load_temperature = "290 K"   # the load's temperature, if far from 290 K
+
+[[reading]]
+time = 2026-12-03T01:40:00Z
+antenna = "Beverage Europe"
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+antenna_db = -95.5
+load_db = -120.0
+
+[[reading]]
+time = 2026-12-03T04:20:00Z
+antenna = "Beverage Europe"
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+antenna_db = -98.5
+load_db = -120.0
+
+[[reading]]
+time = 2026-12-04T00:30:00Z
+antenna = "Beverage Europe"
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+antenna_db = -97.5
+load_db = -120.0
+
+[[reading]]
+time = 2026-12-04T02:50:00Z
+antenna = "TX vertical"
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+s_meter = "S7"
+receiver = "bench receiver"
+"""
+
+_READING_KEYS = {
+    "time",
+    "antenna",
+    "frequency",
+    "bandwidth",
+    "antenna_db",
+    "load_db",
+    "load_temperature",
+    "s_meter",
+    "receiver",
+}
+
+
+@dataclass(frozen=True)
+class Reading:
+    index: int
+    time: _dt.datetime
+    antenna: str
+    freq_hz: float
+    bandwidth_hz: float | None
+    rise_db: float | None = None
+    load_k: float = T0_K
+    power_dbm: float | None = None
+    """An S-meter reading as dBm at the receiver's input, through its receiver's table."""
+    s_meter: str | None = None
+
+
+def _problem(where: str, msg: str):
+    from snrgain.errors import ReadingsError
+
+    return ReadingsError("noise readings", [(where, msg)])
+
+
+def s_meter_dbm(text: str, table: list[tuple[float, float]] | None, where: str) -> float:
+    """An S-meter reading ("S5", "S9+10") as dBm at the receiver's input: through the receiver's table (nominal
+    R.1 dBm -> measured dBm, interpolated linearly), or R.1 itself without a table."""
+    from snrgain.units import QuantityError, parse_power_dbm
+
+    if not isinstance(text, str) or not text.strip().upper().startswith("S"):
+        raise _problem(where, f"an S-meter reading such as 'S5' or 'S9+10'; got {text!r}")
+    try:
+        nominal = parse_power_dbm(text)
+    except QuantityError as exc:
+        raise _problem(where, str(exc)) from None
+    if not table:
+        return nominal
+    xs = np.array([x for x, _ in table])
+    ys = np.array([y for _, y in table])
+    if not (xs[0] - 1e-9 <= nominal <= xs[-1] + 1e-9):
+        raise _problem(
+            where,
+            f"{text} lies outside the receiver's calibration table (S-units from the table's first to its last "
+            "entry); extend the table rather than trust an extrapolation",
+        )
+    return float(np.interp(nominal, xs, ys))
+
+
+def _kelvin(value) -> float | None:
+    """A load's temperature [K]: a number or 'N K', from 1 to 400 K (a load at room temperature, or cooled)."""
+    if isinstance(value, bool):
+        return None
+    try:
+        x = float(value) if isinstance(value, (int, float)) else float(str(value).strip().removesuffix("K").strip())
+    except ValueError:
+        return None
+    return x if 1.0 <= x <= 400.0 else None
+
+
+def load_readings(path) -> list[Reading]:
+    """Read a noise-readings file (:data:`EXAMPLE`); ReadingsError naming each problem's reading and key."""
+    from snrgain.errors import ReadingsError
+    from snrgain.tools.readings import read_toml
+    from snrgain.units import QuantityError, parse_power_dbm, parse_quantity
+
+    data = read_toml(path, allowed={"receiver", "reading"})
+    problems: list[tuple[str, str]] = []
+    tables: dict[str, list[tuple[float, float]]] = {}
+    for key in ("receiver", "reading"):
+        if not isinstance(data.get(key, []), list):
+            raise ReadingsError(str(path), [(key, f"a list of tables: [[{key}]] (see --example)")])
+    for i, rx in enumerate(data.get("receiver", []), 1):
+        where = f"receiver[{i}]"
+        if not isinstance(rx, dict) or not isinstance(rx.get("name"), str):
+            problems.append((where, "a receiver needs a name"))
+            continue
+        pts = []
+        if not isinstance(rx.get("s_meter", []), list):
+            problems.append((f"{where}.s_meter", "a list of [S-reading, dBm] pairs"))
+            continue
+        for j, pair in enumerate(rx.get("s_meter", []), 1):
+            try:
+                s, dbm = pair
+                pts.append((parse_power_dbm(s), float(dbm)))
+                if not s.strip().upper().startswith("S") or not np.isfinite(pts[-1][1]):
+                    raise ValueError
+            except (ValueError, TypeError, QuantityError):
+                problems.append((f"{where}.s_meter[{j}]", f"a pair [S-reading, dBm] such as ['S9', -73]; got {pair!r}"))
+        pts.sort()
+        if len(pts) == 1 or any(b[1] <= a[1] or b[0] <= a[0] for a, b in zip(pts, pts[1:])):
+            problems.append((f"{where}.s_meter", "at least two entries, the dBm rising with the S-reading"))
+        tables[rx["name"]] = pts
+    readings = []
+    for i, r in enumerate(data.get("reading", []), 1):
+        where = f"reading[{i}]"
+        if not isinstance(r, dict):
+            problems.append((where, "a table"))
+            continue
+        for k in sorted(set(r) - _READING_KEYS):
+            problems.append((f"{where}.{k}", f"unknown key; allowed: {', '.join(sorted(_READING_KEYS))}"))
+        t = r.get("time")
+        if isinstance(t, _dt.datetime):
+            t = t.replace(tzinfo=_dt.UTC) if t.tzinfo is None else t.astimezone(_dt.UTC)
+        else:
+            problems.append((f"{where}.time", f"a TOML date-time in UTC such as 2026-12-02T23:10:00Z; got {t!r}"))
+        ant = r.get("antenna")
+        if not isinstance(ant, str) or not ant:
+            problems.append((f"{where}.antenna", "the name of the scenario's antenna the reading was taken on"))
+        vals = {}
+        for key, dim, need in (("frequency", "frequency", True), ("bandwidth", "frequency", False)):
+            if key in r:
+                try:
+                    vals[key] = parse_quantity(r[key], dim)
+                    if not vals[key] > 0:
+                        raise QuantityError(f"must be above 0 Hz; got {r[key]!r}")
+                except QuantityError as exc:
+                    problems.append((f"{where}.{key}", str(exc)))
+            elif need:
+                problems.append((f"{where}.{key}", "missing (e.g. '1.83 MHz')"))
+        rise = load_k = dbm = None
+        has_rise = "antenna_db" in r or "load_db" in r
+        if has_rise == ("s_meter" in r):
+            problems.append((where, "give either antenna_db and load_db (a rise over a matched load) or s_meter"))
+        elif has_rise:
+            try:
+                a_db, l_db = float(r["antenna_db"]), float(r["load_db"])
+                if not (np.isfinite(a_db) and np.isfinite(l_db)):
+                    raise ValueError
+                rise = a_db - l_db
+                if rise <= 0:
+                    problems.append(
+                        (where, f"the antenna reads {rise:+.1f} dB against the load: no rise (check the connections)")
+                    )
+            except (KeyError, ValueError, TypeError):
+                problems.append((where, "antenna_db and load_db both, as numbers in the same dB scale"))
+            load_k = _kelvin(r.get("load_temperature", T0_K))
+            if load_k is None:
+                problems.append(
+                    (
+                        f"{where}.load_temperature",
+                        f"a temperature from 1 to 400 K such as '290 K'; got {r['load_temperature']!r}",
+                    )
+                )
+        else:
+            rx = r.get("receiver")
+            if rx is not None and rx not in tables:
+                problems.append((f"{where}.receiver", f"no [[receiver]] named {rx!r}"))
+            elif "bandwidth" not in r:
+                problems.append((f"{where}.bandwidth", "an S-meter reading needs the bandwidth it was read in"))
+            else:
+                try:
+                    dbm = s_meter_dbm(r["s_meter"], tables.get(rx), f"{where}.s_meter")
+                except ReadingsError as exc:
+                    problems.extend(exc.problems)
+        if not any(p[0].startswith(where) for p in problems):
+            readings.append(
+                Reading(
+                    i,
+                    t,
+                    ant,
+                    vals["frequency"],
+                    vals.get("bandwidth"),
+                    rise,
+                    load_k if load_k is not None else T0_K,
+                    dbm,
+                    r.get("s_meter"),
+                )
+            )
+    if not problems and not readings:
+        problems.append(("reading", "no [[reading]] in the file (see --example)"))
+    if problems:
+        raise ReadingsError(str(path), problems)
+    return readings
+
+
+# ---- through the pipeline
+
+
+@dataclass(frozen=True)
+class NoiseFit:
+    before_db: float
+    offset_db: float
+    spread_db: float
+    """The readings' scatter about the fit, in the readings' own dB (0 with one reading)."""
+    tolerance_db: float
+    """Half-width of the fitted offset's 90 % interval [dB] (the scatter over the readings' sensitivities)."""
+    environment: str
+    freq_hz: float
+    rows: list[dict]
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def determined(self) -> bool:
+        """Whether the readings fix the level well enough to write it: some reading holds man-made noise beyond
+        the rest, the fit is inside the schema's range, and its tolerance (if known) under 10 dB."""
+        from snrgain.tools.learn import OFFSET_RANGE_DB
+
+        inside = OFFSET_RANGE_DB[0] + 0.5 < self.offset_db < OFFSET_RANGE_DB[1] - 0.5
+        tol_ok = not np.isfinite(self.tolerance_db) or self.tolerance_db < 10.0
+        return inside and tol_ok and any(r["offset_db"] is not None for r in self.rows)
+
+    @property
+    def fa_db(self) -> float:
+        """The site's man-made Fa at the scenario's frequency [dB above kT0b]."""
+        return _env_fa(self.environment, self.freq_hz) + self.offset_db
+
+    def as_dict(self) -> dict:
+        return {
+            "quantity": "noise.man_made.offset",
+            "environment": self.environment,
+            "frequency_hz": self.freq_hz,
+            "before_db": self.before_db,
+            "fitted_db": self.offset_db,
+            "readings_scatter_db": self.spread_db,
+            "tolerance_90_db": self.tolerance_db,
+            "man_made_fa_db": self.fa_db,
+            "readings": self.rows,
+            "notes": self.notes,
+        }
+
+
+def _env_fa(environment: str, freq_hz: float) -> float:
+    from noisemodels import p372
+
+    return float(p372.man_made(freq_hz, environment=environment).fa_db)
+
+
+def _copy(data: dict, names: set[str], months: list[int], hours: list[float]) -> dict:
+    import copy
+
+    d = copy.deepcopy(data)
+    d["time"] = {"months": sorted(months), "utc_hours": sorted(hours)}
+    for t in d.get("target", []):
+        t.pop("months", None)
+        t.pop("utc_hours", None)
+    ref = d.get("reference", {}).get("name", "reference")
+    cands = d.get("candidate", [])
+    want = set(names)
+    for _ in range(3):
+        for c in cands:
+            if c.get("name") in want:
+                want |= set(c.get("antennas", []))
+    known = {ref, "reference", *(c.get("name") for c in cands)}
+    for n in names:
+        if n not in known:
+            raise ValueError(f"antenna {n!r} is not in the scenario; its antennas are: {', '.join(sorted(known))}")
+    d["candidate"] = [c for c in cands if c.get("name") in want] or cands[:1]  # a scenario needs a candidate
+    return d
+
+
+def temperatures(readings: list[Reading], scenario_path, *, offset_db: float | None = None, p372_dir=None):
+    """Per reading, from the pipeline: (T other components, T man-made, T_e chain, chain gain [linear]) [K] at its
+    antenna, month and UTC hour (the hour's middle), with the man-made level at ``offset_db`` (default: the
+    scenario's own)."""
+    from snrgain.model.pipeline import evaluate
+    from snrgain.scenario import load, read_source
+    from snrgain.tools.learn import current_offset, with_offset
+
+    data, label, base_dir = read_source(Path(scenario_path))
+    before = current_offset(data)
+    off = before if offset_db is None else offset_db
+    months = sorted({r.time.month for r in readings})
+    hours = sorted({r.time.hour for r in readings})
+    d = _copy(with_offset(data, off), {r.antenna for r in readings}, months, [h + 0.5 for h in hours])
+    res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
+    ref = res.reference.name
+    by = {x.name: x for x in [res.reference, *res.candidates]}
+    b = res.bandwidth_hz
+    out = []
+    for r in readings:
+        x = by[ref if r.antenna == "reference" else r.antenna]
+        mi, hi = months.index(r.time.month), hours.index(r.time.hour)
+        g_db = x.chain["gain_db"]
+        t_of = {
+            n: 10 ** ((v[mi, hi] - g_db) / 10.0) * 1e-3 / (BOLTZMANN * b) for n, v in x.noise_by_component_dbm.items()
+        }
+        mm = sum(v for n, v in t_of.items() if n.startswith("man-made"))
+        other = sum(v for n, v in t_of.items() if not n.startswith("man-made"))
+        t_e = T0_K * (10 ** (x.chain["noise_figure_db"] / 10.0) - 1.0)
+        out.append((other, mm, t_e, 10 ** (g_db / 10.0)))
+    return before, off, res.freq_hz, out
+
+
+def antenna_temperature(r: Reading, t_e: float, gain: float) -> float:
+    """The antenna temperature [K] a reading implies (the module's Y-factor and S-meter relations)."""
+    if r.rise_db is not None:
+        y = 10 ** (r.rise_db / 10.0)
+        return y * (r.load_k + t_e) - t_e
+    p_w = 10 ** (r.power_dbm / 10.0) * 1e-3
+    return p_w / (BOLTZMANN * r.bandwidth_hz * gain) - t_e
+
+
+def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
+    """The man-made offset the readings give (the module's note), with their spread."""
+    from scipy.optimize import minimize_scalar
+
+    from snrgain.scenario import read_source
+    from snrgain.tools import logs
+    from snrgain.tools.learn import OFFSET_RANGE_DB, Z90
+
+    data, _, _ = read_source(Path(scenario_path))
+    env = data.get("noise", {}).get("man_made", {}).get("environment", "residential")
+    before, _, freq, temps = temperatures(readings, scenario_path, p372_dir=p372_dir)
+    band = logs.band_of_hz(freq)
+    rows, notes, used = [], [], []
+    for r, (other, mm, t_e, g) in zip(readings, temps):
+        t_a = antenna_temperature(r, t_e, g)
+        row = {
+            "reading": r.index,
+            "time_utc": r.time.strftime("%Y-%m-%d %H:%M"),
+            "antenna": r.antenna,
+            "kind": "rise over load" if r.rise_db is not None else f"S-meter {r.s_meter}",
+            "antenna_temperature_k": t_a,
+            "other_components_k": other,
+            "man_made_modelled_k": mm,
+            "chain_temperature_k": t_e,
+            "offset_db": None,
+            "man_made_fa_db": None,
+            "note": "",
+        }
+        if logs.band_of_hz(r.freq_hz) != band and abs(np.log(r.freq_hz / freq)) > np.log(1.05):
+            row["note"] = (
+                f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band}) and more than 5 % from "
+                f"its {freq / 1e6:g} MHz"
+            )
+            rows.append(row)
+            continue
+        used.append((len(rows), t_a, other, mm, t_e))
+        if t_a <= other:
+            row["note"] = "no more than the other components and the chain give: an upper bound on man-made noise"
+        else:
+            o = before + 10.0 * np.log10((t_a - other) / mm)
+            row["offset_db"] = float(o)
+            row["man_made_fa_db"] = _env_fa(env, freq) + float(o)
+        if r.rise_db is not None and r.rise_db < SMALL_RISE_DB:
+            row["note"] = f"rise only {r.rise_db:.1f} dB over the load: mostly the receiver's own noise"
+        rows.append(row)
+    if not used:
+        raise ValueError("no reading lies in the scenario's band (see each reading's note)")
+    _, t_a, other, mm, t_e = (np.array(x) for x in zip(*used))
+    measured = 10.0 * np.log10(np.maximum(t_a + t_e, 1e-30))
+
+    def resid(delta):  # reading [dB] minus what the scenario with the offset moved by delta predicts
+        return measured - 10.0 * np.log10(other + mm * 10 ** (delta / 10.0) + t_e)
+
+    def cost(delta):
+        return float(np.sum(resid(delta) ** 2))
+
+    lo, hi = OFFSET_RANGE_DB[0] - before, OFFSET_RANGE_DB[1] - before
+    grid = np.arange(lo, hi + 1e-9, 1.0)
+    k = int(np.argmin([cost(x) for x in grid]))
+    sol = minimize_scalar(
+        cost, bounds=(grid[max(k - 1, 0)], grid[min(k + 1, grid.size - 1)]), method="bounded", options={"xatol": 0.01}
+    )
+    delta = float(sol.x)
+    share = mm * 10 ** (delta / 10.0) / (other + mm * 10 ** (delta / 10.0) + t_e)  # d(reading dB)/d(offset dB)
+    for (i, *_), sh, rr in zip(used, share, resid(delta)):
+        rows[i]["man_made_share"] = float(sh)
+        rows[i]["residual_db"] = float(rr)
+    n = len(used)
+    scatter = float(np.sqrt(np.sum(resid(delta) ** 2) / (n - 1))) if n > 1 else 0.0
+    info = float(np.sum(share**2))
+    se = scatter / np.sqrt(info) if n > 1 and info > 0 else float("nan")
+    if n < 3:
+        notes.append(f"only {n} usable reading(s): take readings over several evenings to know the spread")
+    if np.max(share) < 0.2:
+        notes.append(
+            "man-made noise is under a fifth of every reading: the other components and the chain dominate, so the "
+            "man-made level is poorly determined; read on an antenna that hears the local sources less"
+        )
+    if grid[0] + 0.5 >= delta or delta >= grid[-1] - 0.5:
+        notes.append("the fitted offset lies at the edge of what the schema allows: choose another environment")
+    return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes)
+
+
+def fit_lines(f: NoiseFit) -> list[str]:
+    out = [
+        f"{'#':>3} {'UTC':<16} {'antenna':<20} {'reading':<16} {'T_A [K]':>10} {'offset':>7} {'Fa mm':>6}  note",
+    ]
+    for r in f.rows:
+        off = "-" if r["offset_db"] is None else f"{r['offset_db']:+.1f}"
+        fa = "-" if r["man_made_fa_db"] is None else f"{r['man_made_fa_db']:.1f}"
+        out.append(
+            f"{r['reading']:>3} {r['time_utc']:<16} {r['antenna'][:20]:<20} {r['kind'][:16]:<16} "
+            f"{r['antenna_temperature_k']:>10.3g} {off:>7} {fa:>6}  {r['note']}"
+        )
+    tol = "" if not np.isfinite(f.tolerance_db) else f" +-{f.tolerance_db:.1f} dB (90 %)"
+    out += [
+        "",
+        f"man-made ({f.environment}) at {f.freq_hz / 1e6:g} MHz: Fa {f.fa_db:.1f} dB above kT0b; offset "
+        f"{f.before_db:+.1f} -> {f.offset_db:+.1f} dB{tol}; the readings scatter {f.spread_db:.1f} dB about the fit",
+        *(f"note: {n}" for n in f.notes),
+    ]
+    return out
+
+
+def synthesise(
+    scenario_path,
+    *,
+    offset_db: float,
+    plan: list[tuple[str, str, str]],
+    bandwidth_hz: float = 2400.0,
+    noise_db: float = 1.5,
+    seed: int = 0,
+    p372_dir=None,
+) -> str:
+    """A readings file (TOML text) synthesised from a known man-made offset, through the same modelled gain and
+    chain (the round-trip test's data): ``plan`` lists (UTC time "YYYY-MM-DDTHH:MM:SSZ", antenna, kind "rise" or
+    "s_meter").  Each reading gets Gaussian reading noise of ``noise_db`` [dB]; rises are written to 0.1 dB, and
+    S-meter readings through a receiver "ideal" whose table is R.1's (whole S-units below S9, so readings there
+    are quantised to 6 dB, as real ones are; whole dB above S9)."""
+    from snrgain.scenario import read_source
+
+    data, _, _ = read_source(Path(scenario_path))
+    from snrgain.units import parse_quantity
+
+    freq = parse_quantity(data["band"]["frequency"], "frequency")
+    rng = np.random.default_rng(seed)
+    readings = [
+        Reading(
+            i + 1,
+            _dt.datetime.fromisoformat(t.replace("Z", "+00:00")),
+            a,
+            freq,
+            bandwidth_hz,
+            1.0 if k == "rise" else None,
+        )
+        for i, (t, a, k) in enumerate(plan)
+    ]
+    _, _, _, temps = temperatures(readings, scenario_path, offset_db=offset_db, p372_dir=p372_dir)
+    # an S-meter table of 1 dB steps, so that a reading keeps its dB (a real meter's table is coarser)
+    steps = [(f"S9+{k}" if k > 0 else "S9", -73 + k) for k in range(0, 61)]
+    low = [(f"S{s}", -73 - 6 * (9 - s)) for s in range(1, 9)]
+    lines = ["# synthesised noise readings (snrgain.tools.noisereadings.synthesise)", ""]
+    lines += [
+        "[[receiver]]",
+        'name = "ideal"',
+        "s_meter = [" + ", ".join(f'["{s}", {d}]' for s, d in low + steps) + "]",
+    ]
+    for (t, a, k), (other, mm, t_e, g) in zip(plan, temps):
+        t_a = other + mm
+        lines += ["", "[[reading]]", f"time = {t}", f"antenna = {_tq(a)}", f'frequency = "{freq / 1e6:g} MHz"']
+        lines.append(f'bandwidth = "{bandwidth_hz:g} Hz"')
+        if k == "rise":
+            y_db = 10 * np.log10((t_a + t_e) / (T0_K + t_e)) + rng.normal(0.0, noise_db)
+            load = -120.0 + rng.normal(0.0, 0.3)
+            lines += [f"antenna_db = {np.round(load + y_db, 1):.1f}", f"load_db = {load:.1f}"]
+        else:
+            p = 10 * np.log10(BOLTZMANN * bandwidth_hz * g * (t_a + t_e) / 1e-3) + rng.normal(0.0, noise_db)
+            if p < -73.0 - 48.0 or p > -13.0:
+                raise ValueError(f"a synthesised S-meter reading of {p:.0f} dBm lies outside S1 to S9+60")
+            # the nominal reading whose table value is nearest p: S-units below S9 (6 dB steps), dB above it
+            nominal = -73.0 + np.round(p + 73.0) if p >= -73.0 else -73.0 - 6 * np.round((-73.0 - p) / 6.0)
+            s = f"S9+{int(nominal + 73)}" if nominal > -73 else f"S{int(9 - round((-73 - nominal) / 6))}"
+            lines += [f's_meter = "{s}"', 'receiver = "ideal"']
+    return "\n".join(lines) + "\n"
+
+
+def _tq(s: str) -> str:
+    from snrgain.tools.tomltext import toml_string
+
+    return toml_string(s)
