@@ -1,0 +1,153 @@
+"""The transmitting vertical as a scatterer (snrgain.physics.scatter) against NEC-2 and the induced-EMF method.
+
+References: tests/nec/scatter.json, written by tests/nec/make_scatter.py with nec2c (a quarter-wave vertical at
+1.83 MHz, resonant = base loaded by 50 ohm, detuned = base open, 10-80 m broadside of and behind a flag and a pair
+of short verticals, over a perfect and a lossy ground); the mutual impedance of two monopoles by the induced-EMF
+method (snrgain.antennas.coupling, itself checked against Balanis's closed forms in tests/test_coupling.py).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from snrgain.antennas.base import from_si, from_spec
+from snrgain.antennas.coupling import monopole_impedance
+from snrgain.physics import scatter
+from snrgain.physics.scatter import TxVertical, with_vertical
+from tests.nec.necdeck import metrics_toward
+
+REF = json.loads((Path(__file__).parent / "nec" / "scatter.json").read_text())
+F_HZ = REF["freq_mhz"] * 1e6
+_TH, _PH = (a.ravel() for a in np.meshgrid(np.arange(0, 91, 2.0), np.arange(0, 360, 2.0), indexing="ij"))
+_AZ, _EL = np.radians(90.0 - _PH), np.radians(90.0 - _TH)  # NEC's phi from +x (east) counterclockwise
+
+
+def _ground(name):
+    return "perfect" if name == "perfect" else {"permittivity": 13.0, "conductivity": "5 mS/m"}
+
+
+def _antennas(gname):
+    g = _ground(gname)
+    fl, pr = REF["flag"], REF["pair"]
+    flag = from_spec(
+        {
+            "family": "terminated-loop",
+            "width": f"{fl['width_m']} m",
+            "loop_height": f"{fl['loop_height_m']} m",
+            "height": f"{fl['height_m']} m",
+            "termination": f"{fl['termination_ohm']} ohm",
+            "bearing": 270,  # NEC's phi = 180 deg
+            "ground": g,
+            "position": [0, 0],
+        }
+    )
+    pair = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [pr["spacing_m"], 0]],
+            "height": f"{pr['height_m']} m",
+            "steering": "given",
+            "phases": [0, -pr["phase_deg"]],
+            "phase_sense": "lag",
+            "ground": g,
+            "ground_loss": "0 ohm",
+        }
+    )
+    loss = "0 ohm" if gname == "perfect" else f"{REF['tx']['ground_loss_ohm']} ohm"
+    tx = from_spec({"family": "vertical", "height": f"{REF['tx']['height_m']} m", "ground": g, "ground_loss": loss})
+    return {"flag": flag, "pair": pair}, tx
+
+
+_CACHE: dict = {}
+
+
+def _model(case, load):
+    if case["ground"] not in _CACHE:
+        _CACHE[case["ground"]] = _antennas(case["ground"])
+    ants, txa = _CACHE[case["ground"]]
+    t = TxVertical(txa, tuple(case["tx_m"]), load, REF["tx"]["radius_m"])
+    ev, eh = with_vertical(ants[case["antenna"]], t, F_HZ, _AZ, _EL, at_m=(0.0, 0.0))
+    g = 10 * np.log10(np.maximum(np.abs(ev) ** 2 + np.abs(eh) ** 2, 1e-30))
+    return metrics_toward(_TH, _PH, g, forward_phi_deg=180.0 if case["antenna"] == "flag" else 0.0)
+
+
+def _changes(m, alone):
+    return (
+        m["rdf_db"] - alone["rdf_db"],
+        m["forward_gain_dbi"] - alone["forward_gain_dbi"],
+        m["front_to_back_db"],
+    )
+
+
+# The vertical 10 m behind the pair's centre stands 2.5 m from an element: beyond the compact model (the element's
+# current is no longer sinusoidal there); every other case is held.
+CASES = [c for c in REF["cases"] if not (c["antenna"] == "pair" and c["place"] == "behind" and c["distance_m"] < 15)]
+
+
+@pytest.mark.parametrize("case", CASES, ids=lambda c: f"{c['antenna']}-{c['ground']}-{c['place']}-{c['distance_m']:g}")
+def test_resonant_vertical_changes_as_nec(case):
+    """RDF change within 0.3 dB, forward-gain change within 1 dB, front-to-back within 3 dB of NEC-2's (or both
+    beyond 25 dB), for the vertical resonant (50 ohm at its base)."""
+    alone = _model(case, None)
+    d_rdf, d_gain, fb = _changes(_model(case, 50.0), alone)
+    nec = case["resonant"]
+    n_rdf, n_gain, n_fb = _changes(nec, case["alone"])
+    assert d_rdf == pytest.approx(n_rdf, abs=0.3)
+    assert d_gain == pytest.approx(n_gain, abs=1.0)
+    assert fb == pytest.approx(n_fb, abs=3.0) or min(fb, n_fb) > 25.0
+
+
+def test_flag_20m_cost_and_detuned_recovery():
+    """The issue's check: the flag 20 m from a resonant quarter-wave vertical shows NEC's SNR cost (RDF under a
+    uniform sky) within 2 dB, and detuning recovers it in NEC and in the model alike."""
+    for case in (c for c in REF["cases"] if c["antenna"] == "flag" and c["distance_m"] == 20.0):
+        alone = _model(case, None)
+        cost_model = alone["rdf_db"] - _model(case, 50.0)["rdf_db"]
+        cost_nec = case["alone"]["rdf_db"] - case["resonant"]["rdf_db"]
+        assert cost_model == pytest.approx(cost_nec, abs=2.0)
+        # Detuned (open): NEC's residue of the open wire stays within 0.2 dB of the flag alone; the model's is 0.
+        assert abs(case["alone"]["rdf_db"] - case["detuned"]["rdf_db"]) < 0.2
+        assert abs(case["detuned"]["front_to_back_db"] - case["alone"]["front_to_back_db"]) < 3.0
+        assert case["resonant"]["front_to_back_db"] < case["detuned"]["front_to_back_db"] - 5.0
+
+
+def test_effective_height_gives_induced_emf_mutual_impedance():
+    """Z_21 = -c_A e_A(grazing) E_z / 2 for two verticals equals the induced-EMF mutual impedance (Balanis, eq.
+    (8-62), through coupling.monopole_impedance): the normalisation and sign of the scattered term."""
+    lam = 299792458.0 / F_HZ
+    tx = from_si("vertical", height=lam / 4, ground="perfect", ground_loss=0.0)
+    t = TxVertical(tx, (0.0, 0.0))
+    c = scatter.effective_height_scale(t, F_HZ)
+    assert c * np.sqrt(tx.gain_linear(F_HZ, 0.0, 0.0)) == pytest.approx(lam / np.pi, rel=2e-3)  # |h| = lambda/pi
+    for d in (60.0, 300.0):
+        term, _ = scatter.coupling_terms(tx, t, F_HZ, (d, 0.0))
+        z = monopole_impedance(F_HZ, lam / 4, 0.0, d)
+        assert abs(-term * c - z) < 0.05 * abs(z)
+
+
+def test_open_base_and_detuning_reactance():
+    """An open base leaves the antenna's response as it is; a detuning reactance of a few kohm nearly so; the
+    resonant load changes it."""
+    ants, txa = _antennas("lossy")
+    flag = ants["flag"]
+    az, el = np.radians([270.0, 90.0]), np.radians([20.0, 20.0])
+    bare = flag.complex_response(F_HZ, az, el)[0]
+    t = TxVertical(txa, (4.25, 20.0), None)
+    assert np.allclose(with_vertical(flag, t, F_HZ, az, el, at_m=(0, 0))[0], bare)
+    detuned = with_vertical(flag, t.with_load(scatter.state_load("detuned", 3000.0)), F_HZ, az, el, at_m=(0, 0))[0]
+    resonant = with_vertical(flag, t.with_load(scatter.state_load("resonant")), F_HZ, az, el, at_m=(0, 0))[0]
+    change_detuned, change_resonant = np.abs(detuned - bare), np.abs(resonant - bare)
+    assert np.all(change_detuned < 0.2 * change_resonant)
+    assert change_resonant[0] > 0.05 * abs(bare[0])
+
+
+def test_bad_state_and_tall_vertical():
+    with pytest.raises(ValueError, match="tx_state"):
+        scatter.state_load("off")
+    tall = from_si("vertical", height=60.0, ground="perfect")
+    with pytest.raises(ValueError, match="wavelengths"):
+        scatter.check_height(TxVertical(tall, (0.0, 0.0)), 7.1e6)
