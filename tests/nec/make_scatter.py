@@ -165,7 +165,7 @@ def main():
             for antenna in ("flag", "pair"):
                 cx, cy = CENTRES[antenna]
 
-                def run(tx, name):
+                def run(tx, name, antenna=antenna, ground=ground, r_tx=r_tx, r_pair=r_pair):
                     d = deck(antenna, ground, tx, r_tx, r_pair)
                     out = parse_output(run_nec2c(d, work, "scatter"))
                     m = metrics_toward(
