@@ -151,3 +151,89 @@ def test_bad_state_and_tall_vertical():
     tall = from_si("vertical", height=60.0, ground="perfect")
     with pytest.raises(ValueError, match="wavelengths"):
         scatter.check_height(TxVertical(tall, (0.0, 0.0)), 7.1e6)
+
+
+SMALL_LOT = """
+[site]
+name = "small lot"
+latitude = 44.2
+longitude = -71.3
+lot = [[-30, -30], [60, -30], [60, 40], [-30, 40]]
+{extra}
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[target]]
+name = "Europe"
+bearing = 90
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "40 m"
+
+[[candidate]]
+name = "flag near"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+bearing = 90
+position = [-4.25, 20]
+
+[[candidate]]
+name = "flag far"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+bearing = 90
+position = [40, 0]
+
+[[candidate]]
+name = "pair"
+family = "phased-verticals"
+positions = [[30, 25], [45, 25]]
+height = "6 m"
+bearing = 90
+"""
+
+
+def _tx_codes(extra=""):
+    import snrgain
+
+    r = snrgain.evaluate(SMALL_LOT.format(extra=extra))
+    return {(n.code, n.antenna): n for n in r.notices if "tx" in n.code}
+
+
+def test_small_lot_is_not_flagged_by_distance_alone():
+    """Every antenna stands well inside half a wavelength (82 m); only the one the resonant vertical costs more
+    than 1 dB of RDF is warned about, with both states' numbers; detuned, none is."""
+    codes = _tx_codes()
+    assert not any(code == "near-tx-vertical" for code, _ in codes)
+    assert set(codes) == {("tx-vertical-cost", "flag near")}
+    v = codes[("tx-vertical-cost", "flag near")].values
+    assert v["state"] == "resonant" and v["cost_db"] > 1.0 and abs(v["detuned_rdf_change_db"]) < 0.1
+    assert v["resonant_front_to_back_db"] < v["front_to_back_alone_db"] - 6.0
+    assert not _tx_codes('tx_state = "detuned"')
+    assert not _tx_codes('tx_state = "detuned"\ntx_detune_reactance = "3000 ohm"')
+    hard = _tx_codes('tx_clearance = "50 m"')
+    assert {a for c, a in hard if c == "near-tx-vertical"} == {"flag near", "flag far", "pair"}
+
+
+def test_the_warning_says_the_cautions():
+    from snrgain.outputs.messages import notice_text
+
+    n = _tx_codes()[("tx-vertical-cost", "flag near")]
+    text = notice_text(n)
+    assert "relay" in text and "rated for the transmitter's power" in text and "licensed practice" in text

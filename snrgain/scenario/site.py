@@ -64,7 +64,13 @@ class SiteSection(StrictModel):
     keep_out: list[KeepOut] = Field(default_factory=list, max_length=64)
     """Areas no antenna may enter: the house, a road, the transmitting vertical's radial field."""
     tx_clearance: quantity("length", ge=0.0, le=2000.0) | None = None
-    """How far receiving antennas should stay from the transmitting vertical [m] (default: half a wavelength)."""
+    """How far receiving antennas should stay from the transmitting vertical [m]: a hard rule when given (default:
+    none for antennas whose coupling to the vertical is computed, half a wavelength for long wires)."""
+    tx_state: Literal["resonant", "detuned"] = "resonant"
+    """The transmitting vertical's state while the station receives: its base on the transmitter's feed, or
+    detuned (the feed opened by a relay, or tx_detune_reactance across its base): snrgain.model.scatter."""
+    tx_detune_reactance: quantity("resistance", ge=-100000.0, le=100000.0) | None = None
+    """The detuning reactance across the vertical's base when detuned [ohm] (None: the feed open)."""
     units: Literal["m", "ft"] | None = None
     """The unit lengths are shown in (terminal, report, build sheet, layout); default: the unit the file's lengths
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""
@@ -114,9 +120,14 @@ class Site:
     keep_out: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
     """Areas no antenna may enter: (name, outline [m east, m north])."""
     tx_clearance_m: float | None = None
-    """How far receiving antennas should stay from the transmitting vertical [m]; None: half a wavelength."""
+    """How far receiving antennas should stay from the transmitting vertical [m]; None: the cost computed
+    (snrgain.model.scatter), half a wavelength for long wires."""
     length_unit: str = "m"
     """The unit the scenario's lengths are shown in ("m" or "ft"): the file's (snrgain.units.length_unit_of)."""
+    tx_state: str = "resonant"
+    """The transmitting vertical's state while receiving: "resonant" or "detuned"."""
+    tx_detune_reactance_ohm: float | None = None
+    """The detuning reactance across its base when detuned [ohm]; None: the feed open."""
 
     @classmethod
     def of(cls, site: SiteSection, length_unit: str | None = None) -> Site:
@@ -132,6 +143,8 @@ class Site:
             tuple((k.name, site.plan_outline(k.outline)) for k in site.keep_out),
             site.tx_clearance,
             length_unit or site.units or "m",
+            site.tx_state,
+            site.tx_detune_reactance,
         )
 
 
