@@ -237,3 +237,66 @@ def test_the_warning_says_the_cautions():
     n = _tx_codes()[("tx-vertical-cost", "flag near")]
     text = notice_text(n)
     assert "relay" in text and "rated for the transmitter's power" in text and "licensed practice" in text
+
+
+LAYOUT_LOT = """
+[site]
+name = "small lot to place on"
+latitude = 44.2
+longitude = -71.3
+lot = [[-15, -15], [45, -15], [45, 35], [-15, 35]]
+{extra}
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[target]]
+name = "East"
+bearing = 90
+elevation = [10, 25]
+
+[reference]
+name = "TX vertical"
+family = "vertical"
+height = "40 m"
+position = [0, 0]
+
+[[candidate]]
+name = "flag"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+bearing = 90
+place = {{}}
+"""
+
+
+def test_layout_places_by_the_computed_cost_not_a_radius():
+    """Every place on this lot lies inside half a wavelength (82 m) of the vertical: with the clearance rule alone
+    layout refused; now it places the flag, its score carrying the computed cost, and a given tx_clearance is
+    still a hard rule."""
+    import tomllib
+
+    from snrgain.scenario import load
+    from snrgain.tools.layout import Problem
+
+    text = LAYOUT_LOT.format(extra="")
+    pr = Problem(load(text), tomllib.loads(text))
+    found = pr.feasible(0)
+    costs = pr.tx_costs_db([pr.base[0].at((d.east_m, d.north_m)) for d in found])
+    best = pr.search(keep=1)[0].designs[0]
+    best_cost = float(pr.tx_costs_db([pr.base[0].at((best.east_m, best.north_m))])[0])
+    assert costs.max() > 1.0 and best_cost < 1.0  # some places cost over 1 dB; the chosen one does not
+    hard = LAYOUT_LOT.format(extra='tx_clearance = "30 m"')
+    pr_hard = Problem(load(hard), tomllib.loads(hard))
+    assert all(np.hypot(d.east_m, d.north_m) >= 30.0 - 1e-6 for d in pr_hard.feasible(0))
