@@ -85,7 +85,11 @@ def _changes(m, alone):
 
 # The vertical 10 m behind the pair's centre stands 2.5 m from an element: beyond the compact model (the element's
 # current is no longer sinusoidal there); every other case is held.
-CASES = [c for c in REF["cases"] if not (c["antenna"] == "pair" and c["place"] == "behind" and c["distance_m"] < 15)]
+CASES = [
+    c
+    for c in REF["cases"]
+    if c["antenna"] != "beverage" and not (c["antenna"] == "pair" and c["place"] == "behind" and c["distance_m"] < 15)
+]
 
 
 @pytest.mark.parametrize("case", CASES, ids=lambda c: f"{c['antenna']}-{c['ground']}-{c['place']}-{c['distance_m']:g}")
@@ -300,3 +304,15 @@ def test_layout_places_by_the_computed_cost_not_a_radius():
     hard = LAYOUT_LOT.format(extra='tx_clearance = "30 m"')
     pr_hard = Problem(load(hard), tomllib.loads(hard))
     assert all(np.hypot(d.east_m, d.north_m) >= 30.0 - 1e-6 for d in pr_hard.feasible(0))
+
+
+def test_beverage_references_bound_the_effect_the_model_does_not_compute():
+    """NEC-2's Beverage cases (100 m, 2 m up, lossy ground): the detuned vertical leaves the wire as it is, and the
+    resonant one moves its RDF by under 1 dB from 10 to 40 m (it even reflects from behind the feed); the model
+    keeps the half-wave clearance for long wires (lot.site_notices), a conservative rule the data do not call for
+    on this wire: kept until long wires are computed."""
+    bev = [c for c in REF["cases"] if c["antenna"] == "beverage" and c["ground"] == "lossy"]
+    assert len(bev) >= 7
+    for c in bev:
+        assert abs(c["detuned"]["rdf_db"] - c["alone"]["rdf_db"]) < 0.1
+        assert abs(c["resonant"]["rdf_db"] - c["alone"]["rdf_db"]) < 1.0

@@ -7,19 +7,24 @@ feed presents) and detuned (its base open: a 1 Gohm load in the base segment).  
 - a flag: the rectangle of make_termloops.py (8.5 m by 4.3 m, 1.5 m up, 900 ohm), in the x-z plane, fed at x = 0,
   favouring NEC's phi = 180 deg; the vertical broadside (on +y from the loop's centre) or behind it (on +x);
 - a pair of short verticals (6 m, 15 m apart on the x axis, base loads of 5 kohm, the one at x = 15 m driven at
-  -150 deg), favouring phi = 0; the vertical broadside of the pair's centre (+y) or behind it (-x).
+  -150 deg), favouring phi = 0; the vertical broadside of the pair's centre (+y) or behind it (-x);
+- a Beverage: 100 m (0.61 wavelength: Debian's nec2c goes wrong once a structure spans about a wavelength,
+  DESIGN.md, so the cases whose span with the vertical passes 0.9 wavelength are left out: 80 m behind)
+  at 2 m along +x with one-segment down-leads, 450 ohm at the far end, favouring phi = 0; the vertical broadside
+  of the wire's middle (+y) or behind its feed end (-x).  NEC-2 holds a wire 2 m up (0.011 wavelength) only
+  roughly over the lossy ground (DESIGN.md: its Sommerfeld solution for wires below about 0.05 wavelength is
+  doubtful in PyNEC; these runs are nec2c's): the Beverage's figures are a guide to the size of the effect, and
+  the model does not compute long wires (they keep the half-wave rule).
 
-Distances 10, 20, 40 and 80 m (from the antenna's centre).  One port: the receiving antenna's source gives its
-pattern (its receiving pattern by reciprocity, the vertical taking part through its load).  Grounds: perfect
+Distances 10, 20, 40 and 80 m (from the antenna's centre; the Beverage's feed end when behind).  One port: the
+receiving antenna's source gives its pattern (its receiving pattern by reciprocity, the vertical taking part
+through its load).  Grounds: perfect
 (GN 1) and Sommerfeld (GN 2, eps_r 13, 5 mS/m).  Over the lossy ground NEC's wire-to-ground junction adds a
 resistance of its own (DESIGN.md); each vertical touching the ground has it measured on a stub of its bottom
 segment (make_deembedded.stub_deck) and subtracted, and the TX vertical is given the project's 10 ohm of radial
 loss instead (the vertical family's default ground_loss).  The short verticals keep their 5 kohm loads, where a
-junction of tens of ohm barely matters, and get the same subtraction.
-
-A Beverage is not in the set: a wire a few metres up over lossy ground next to a 41 m vertical is within NEC-2's
-reach only with the junction corrections at three grounded points, and the model keeps its clearance rule for
-long wires for now (tests/test_tx_scatter.py says so).
+junction of tens of ohm barely matters, and get the same subtraction; so do the Beverage's two down-leads (its
+feed and its termination).
 
 Per case: forward gain, RDF and front-to-back at 20 deg elevation (necdeck.metrics_toward).
 Run: python tests/nec/make_scatter.py  (a minute or two; needs nec2c on the PATH)
@@ -55,6 +60,7 @@ RADIUS_M = 0.0008138  # AWG 14
 GAP_M = 0.1
 STEP_M = 0.3
 FLAG = {"width_m": 8.5, "loop_height_m": 4.3, "height_m": 1.5, "termination_ohm": 900.0}
+BEVERAGE = {"length_m": 100.0, "height_m": 2.0, "termination_ohm": 450.0}
 PAIR = {"height_m": 6.0, "spacing_m": 15.0, "load_ohm": 5000.0, "phase_deg": -150.0, "segments": 6}
 
 
@@ -82,7 +88,7 @@ def flag_cards():
     return cards, len(wires) - 1, len(wires)
 
 
-def deck(antenna, ground, tx, r_j_tx=0.0, r_j_pair=0.0):
+def deck(antenna, ground, tx, r_j_tx=0.0, r_j_pair=0.0, r_j_bev=0.0):
     """A deck of ``antenna`` ("flag" or "pair") with the TX vertical ``tx`` = (x, y, state) or None."""
     lines = ["CM TX vertical beside a receiving antenna (snrgain scatter validation case)", "CE"]
     loads, excite = [], []
@@ -92,6 +98,17 @@ def deck(antenna, ground, tx, r_j_tx=0.0, r_j_pair=0.0):
         loads.append(f"LD 0 {term} 1 1 {FLAG['termination_ohm']:.3f} 0 0")
         excite.append(f"EX 0 {feed} 1 0 1 0")
         tag = term
+    elif antenna == "beverage":
+        b = BEVERAGE
+        ns = int(np.ceil(b["length_m"] / (299.792458 / FREQ_MHZ / 40)))
+        lines.append(f"GW 1 1 0 0 0 0 0 {b['height_m']:g} {RADIUS_M:g}")
+        lines.append(f"GW 2 {ns} 0 0 {b['height_m']:g} {b['length_m']:g} 0 {b['height_m']:g} {RADIUS_M:g}")
+        lines.append(f"GW 3 1 {b['length_m']:g} 0 {b['height_m']:g} {b['length_m']:g} 0 0 {RADIUS_M:g}")
+        loads.append(f"LD 0 3 1 1 {b['termination_ohm'] - r_j_bev:.3f} 0 0")
+        if r_j_bev:
+            loads.append(f"LD 0 1 1 1 {-r_j_bev:.3f} 0 0")
+        excite.append("EX 0 1 1 0 1 0")
+        tag = 3
     else:
         h, s, n = PAIR["height_m"], PAIR["spacing_m"], PAIR["segments"]
         lines.append(f"GW 1 {n} 0 0 0 0 0 {h:g} {RADIUS_M:g}")
@@ -117,12 +134,26 @@ def deck(antenna, ground, tx, r_j_tx=0.0, r_j_pair=0.0):
     return "\n".join(lines) + "\n"
 
 
-CENTRES = {"flag": (FLAG["width_m"] / 2, 0.0), "pair": (PAIR["spacing_m"] / 2, 0.0)}
-FORWARD_PHI = {"flag": 180.0, "pair": 0.0}
+CENTRES = {
+    "flag": (FLAG["width_m"] / 2, 0.0),
+    "pair": (PAIR["spacing_m"] / 2, 0.0),
+    "beverage": (BEVERAGE["length_m"] / 2, 0.0),
+}
+FORWARD_PHI = {"flag": 180.0, "pair": 0.0, "beverage": 0.0}
 PLACES = {
     "flag": {"broadside": (0.0, 1.0), "behind": (1.0, 0.0)},
     "pair": {"broadside": (0.0, 1.0), "behind": (-1.0, 0.0)},
+    "beverage": {"broadside": (0.0, 1.0), "behind": (-1.0, 0.0)},
 }
+# The Beverage's vertical stands its distance from the wire's middle (broadside) or from its feed end (behind).
+OFFSETS = {"beverage": {"behind": (0.0, 0.0)}}
+
+
+def _span(antenna, x, y) -> float:
+    """The largest plan distance between the vertical at (x, y) and the antenna's ends [m]."""
+    ends = {"flag": [(0, 0), (FLAG["width_m"], 0)], "pair": [(0, 0), (PAIR["spacing_m"], 0)]}
+    ends["beverage"] = [(0, 0), (BEVERAGE["length_m"], 0)]
+    return max(float(np.hypot(x - a, y - b)) for a, b in ends[antenna])
 
 
 def _junction(ground, height, segments, radius, work):
@@ -153,6 +184,7 @@ def main():
         "load_ohm": LOAD_OHM,
         "flag": FLAG,
         "pair": PAIR,
+        "beverage": BEVERAGE,
         "radius_m": RADIUS_M,
         "cases": [],
     }
@@ -162,11 +194,11 @@ def main():
         for gname, ground in GROUNDS.items():
             r_tx = _junction(ground, TX_HEIGHT_M, TX_SEGMENTS, TX_RADIUS_M, work)
             r_pair = _junction(ground, PAIR["height_m"], PAIR["segments"], RADIUS_M, work)
-            for antenna in ("flag", "pair"):
-                cx, cy = CENTRES[antenna]
+            r_bev = _junction(ground, BEVERAGE["height_m"], 1, RADIUS_M, work)
+            for antenna in ("flag", "pair", "beverage"):
 
-                def run(tx, name, antenna=antenna, ground=ground, r_tx=r_tx, r_pair=r_pair):
-                    d = deck(antenna, ground, tx, r_tx, r_pair)
+                def run(tx, name, antenna=antenna, ground=ground, r_tx=r_tx, r_pair=r_pair, r_bev=r_bev):
+                    d = deck(antenna, ground, tx, r_tx, r_pair, r_bev)
                     out = parse_output(run_nec2c(d, work, "scatter"))
                     m = metrics_toward(
                         out["theta_deg"], out["phi_deg"], out["gain_dbi"], forward_phi_deg=FORWARD_PHI[antenna]
@@ -177,14 +209,21 @@ def main():
 
                 alone = run(None, f"scatter-{antenna}-{gname}-alone")
                 for place, (ux, uy) in PLACES[antenna].items():
+                    cx, cy = OFFSETS.get(antenna, {}).get(place, CENTRES[antenna])
                     for dist in DISTANCES_M:
+                        if _span(antenna, cx + ux * dist, cy + uy * dist) > 0.9 * 299.792458 / FREQ_MHZ:
+                            continue
                         entry = {
                             "antenna": antenna,
                             "ground": gname,
                             "place": place,
                             "distance_m": dist,
                             "tx_m": [round(cx + ux * dist, 3), round(cy + uy * dist, 3)],
-                            "junction_ohm": {"tx": round(r_tx, 2), "pair": round(r_pair, 2)},
+                            "junction_ohm": {
+                                "tx": round(r_tx, 2),
+                                "pair": round(r_pair, 2),
+                                "beverage": round(r_bev, 2),
+                            },
                             "alone": alone,
                         }
                         for state in LOAD_OHM:
