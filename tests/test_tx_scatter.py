@@ -316,3 +316,22 @@ def test_beverage_references_bound_the_effect_the_model_does_not_compute():
     for c in bev:
         assert abs(c["detuned"]["rdf_db"] - c["alone"]["rdf_db"]) < 0.1
         assert abs(c["resonant"]["rdf_db"] - c["alone"]["rdf_db"]) < 1.0
+
+
+def test_a_grounded_tower_is_a_scatterer_too():
+    """A grounded 18 m tower 15 m broadside of a flag on 80 m (0.22 wavelength: near its own resonance) costs the
+    flag as a resonant vertical would; 200 m away it costs nothing; one too tall for the model is said."""
+    import snrgain
+
+    near = '\nstructures = [{ name = "tower", position = [-4.25, 15], height = "18 m" }]'
+    text = SMALL_LOT.format(
+        extra='tx_state = "detuned"\nground = { permittivity = 13, conductivity = "5 mS/m" }' + near
+    ).replace('"1.83 MHz"', '"3.6 MHz"')
+    text = text.replace('height = "40 m"', 'height = "20 m"')
+    r = snrgain.evaluate(text)
+    hit = [n for n in r.notices if n.code == "structure-cost"]
+    assert [n.antenna for n in hit] == ["flag near"] and hit[0].values["cost_db"] > 1.0
+    far = text.replace("[-4.25, 15]", "[-4.25, 215]")
+    assert not [n for n in snrgain.evaluate(far).notices if n.code == "structure-cost"]
+    tall = text.replace('height = "18 m" }', 'height = "40 m" }')
+    assert [n.code for n in snrgain.evaluate(tall).notices if "structure" in n.code] == ["structure-not-computed"]

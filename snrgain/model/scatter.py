@@ -10,6 +10,10 @@ or the antenna's own auto_elevation), of its front-to-back and of its forward ga
 gain's change under a uniform sky (DESIGN.md, SNR): the figure the notice warns on above
 :data:`COST_WARNING_DB`.  Long wires and phasing units are not computed here (the field of a vertical a few
 metres away is not one plane wave along a long wire): they keep the clearance rule.
+
+Other structures (``[site] structures``: a tower, another vertical) are scatterers of the same kind, each a
+monopole of its height and top loading loaded at its foot by its base_load (0: grounded); each is taken alone
+(the coupling between two scatterers, a second-order term, is left out).
 """
 
 from __future__ import annotations
@@ -66,9 +70,27 @@ def _metrics(ev, eh, az, el, fwd_az, fwd_el):
     return {"rdf_db": db(fwd) - db(mean), "front_to_back_db": db(fwd) - db(back), "forward_gain_dbi": db(fwd)}
 
 
-def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None) -> dict | None:
-    """The vertical's effect on ``antenna`` (standing at ``at_m``, default its position): {"alone": metrics,
-    "resonant": changes, "detuned": changes, "state": the user's state, "cost_db": the RDF lost in that state,
+def structure_scatterers(sc) -> list[tuple[str, phys.TxVertical | None, float]]:
+    """(name, scatterer or None where too tall for the model, height in wavelengths) of each ``[site] structures``
+    entry: a monopole of its height and top loading over the site's ground, its foot loaded by base_load."""
+    from snrgain.antennas.base import from_si
+    from snrgain.physics.ground import C_M_PER_S
+
+    out = []
+    for st in getattr(sc.site, "structures", ()):
+        g = sc.site.ground
+        ground = "perfect" if g is None else {"permittivity": g.permittivity, "conductivity": g.conductivity_s_per_m}
+        v = from_si("vertical", height=st.height, top_loading=st.top_loading, ground_loss=st.ground_loss, ground=ground)
+        tx = phys.TxVertical(v, tuple(float(x) for x in st.position), complex(st.base_load), float(st.radius))
+        h_wl = (st.height + st.top_loading) * sc.freq_hz / C_M_PER_S
+        out.append((st.name, tx if h_wl <= phys.MAX_TX_HEIGHT_WAVELENGTHS else None, h_wl))
+    return out
+
+
+def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states: dict | None = None) -> dict | None:
+    """The vertical's effect on ``antenna`` (standing at ``at_m``, default its position): {"alone": metrics, then
+    per state (default "resonant" and "detuned"; ``states`` name -> base load for another scatterer) its RDF change,
+    front-to-back and forward-gain change, "state": the state run, "cost_db": the RDF lost in that state,
     "distance_m"}; None where not computed (:func:`modelled`, no vertical, a vertical too tall for the model)."""
     tx = tx or tx_vertical(sc)
     if tx is None or not modelled(antenna):
@@ -90,10 +112,13 @@ def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None) -> dic
     el = np.concatenate([el, [fwd_el, fwd_el]])
     alone = _metrics(*antenna.complex_response(f, az, el), az, el, bearing, fwd_el)
     terms = phys.coupling_terms(antenna, tx, f, at)
-    state = "resonant" if tx.load_ohm == phys.RESONANT_LOAD_OHM else "detuned"
+    if states is None:
+        state = "resonant" if tx.load_ohm == phys.RESONANT_LOAD_OHM else "detuned"
+        states = {"resonant": phys.RESONANT_LOAD_OHM, "detuned": tx.load_ohm if state == "detuned" else None}
+    else:
+        state = next(iter(states))
     out = {"alone": alone, "state": state, "bearing_rad": bearing}
-    loads = {"resonant": phys.RESONANT_LOAD_OHM, "detuned": tx.load_ohm if state == "detuned" else None}
-    for name, load in loads.items():
+    for name, load in states.items():
         m = _metrics(*phys.with_vertical(antenna, tx.with_load(load), f, az, el, at_m=at, terms=terms), az, el, 0, 0)
         out[name] = {
             "rdf_change_db": m["rdf_db"] - alone["rdf_db"],
@@ -111,12 +136,12 @@ def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None) -> dic
 def tx_notices(sc) -> list[Notice]:
     """``tx-vertical-cost`` for each antenna the vertical costs more than COST_WARNING_DB of RDF in the user's
     state (values: state, cost_db, distance_m, and per state its RDF change, front-to-back and forward-gain change,
-    with the antenna's front-to-back alone)."""
-    tx = tx_vertical(sc)
-    if tx is None:
-        return []
+    with the antenna's front-to-back alone); ``structure-cost`` likewise for each ``[site] structures`` entry
+    (values: structure, cost_db, distance_m, front_to_back_db, front_to_back_alone_db, forward_gain_change_db),
+    and ``structure-not-computed`` (structure, height_wavelengths) for one too tall for the model."""
     out = []
-    for ant in sc.candidates:
+    tx = tx_vertical(sc)
+    for ant in sc.candidates if tx is not None else ():
         if ant is sc.reference:
             continue
         c = tx_cost(sc, ant, tx=tx)
@@ -132,4 +157,21 @@ def tx_notices(sc) -> list[Notice]:
             for k, v in c[s].items():
                 values[f"{s}_{k}"] = v
         out.append(Notice("tx-vertical-cost", ant.name, values))
+    for name, st, h_wl in structure_scatterers(sc):
+        if st is None:
+            out.append(Notice("structure-not-computed", None, {"structure": name, "height_wavelengths": h_wl}))
+            continue
+        for ant in sc.candidates:
+            c = tx_cost(sc, ant, tx=st, states={"as built": st.load_ohm})
+            if c is None or c["cost_db"] <= COST_WARNING_DB:
+                continue
+            values = {
+                "structure": name,
+                "cost_db": c["cost_db"],
+                "distance_m": c["distance_m"],
+                "front_to_back_db": c["as built"]["front_to_back_db"],
+                "front_to_back_alone_db": c["alone"]["front_to_back_db"],
+                "forward_gain_change_db": c["as built"]["forward_gain_change_db"],
+            }
+            out.append(Notice("structure-cost", ant.name, values))
     return out

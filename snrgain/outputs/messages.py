@@ -81,6 +81,19 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{v[f'{other}_rdf_change_db']:+.1f} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
             + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
         )
+    if n.code == "structure-cost":
+        return (
+            f"{n.antenna}: the structure {v['structure']!r} {length_text(v['distance_m'], unit, 0)} away costs "
+            f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
+            f"{v['front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward gain "
+            f"{v['forward_gain_change_db']:+.1f} dB: move the antenna, or break the structure's resonance (insulate "
+            "its foot or change what loads it) where that is safe and its lightning protection allows"
+        )
+    if n.code == "structure-not-computed":
+        return (
+            f"the structure {v['structure']!r} is {v['height_wavelengths']:.2f} wavelengths tall: its re-radiation is "
+            "modelled up to 0.3 wavelength, so what it does to the antennas is not computed"
+        )
     if n.code == "strong-signal-overload":
         return (
             f"{n.antenna}: nearby transmitters put {v['stage_input_dbm']:+.0f} dBm into the {v['stage']} "

@@ -53,6 +53,23 @@ class KeepOut(StrictModel):
     """Corners [east, north] on the site plan (or { latlon = [...] }), in order around the edge."""
 
 
+class Structure(StrictModel):
+    """A nearby metal structure that re-radiates (snrgain.model.scatter): a tower, another vertical, a mast."""
+
+    name: str
+    position: PlanPoint
+    """Its foot on the site plan [east, north]."""
+    height: quantity("length", ge=0.5, le=300.0)
+    top_loading: quantity("length", ge=0.0, le=300.0) = 0.0
+    """Electrical length a top hat or a beam on top adds [m] (as the vertical family's top_loading)."""
+    radius: quantity("length", ge=0.001, le=3.0) = 0.1
+    """Its equivalent wire radius [m] (a lattice tower: about a third of its face width, common practice)."""
+    base_load: quantity("resistance", ge=0.0, le=1e6) = 0.0
+    """What connects its foot to the ground [ohm]: 0 grounded (a tower bonded to its ground rods), or a resistance."""
+    ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
+    """The loss of its ground connection [ohm]."""
+
+
 class SiteSection(StrictModel):
     name: str = "unnamed site"
     latitude: Latitude
@@ -71,6 +88,8 @@ class SiteSection(StrictModel):
     detuned (the feed opened by a relay, or tx_detune_reactance across its base): snrgain.model.scatter."""
     tx_detune_reactance: quantity("resistance", ge=-100000.0, le=100000.0) | None = None
     """The detuning reactance across the vertical's base when detuned [ohm] (None: the feed open)."""
+    structures: list[Structure] = Field(default_factory=list, max_length=16)
+    """Nearby structures that re-radiate: towers, other verticals (name, position, height ...)."""
     units: Literal["m", "ft"] | None = None
     """The unit lengths are shown in (terminal, report, build sheet, layout); default: the unit the file's lengths
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""
@@ -128,6 +147,8 @@ class Site:
     """The transmitting vertical's state while receiving: "resonant" or "detuned"."""
     tx_detune_reactance_ohm: float | None = None
     """The detuning reactance across its base when detuned [ohm]; None: the feed open."""
+    structures: tuple = ()
+    """Nearby structures that re-radiate (validated [site] structures entries, SI)."""
 
     @classmethod
     def of(cls, site: SiteSection, length_unit: str | None = None) -> Site:
@@ -145,6 +166,7 @@ class Site:
             length_unit or site.units or "m",
             site.tx_state,
             site.tx_detune_reactance,
+            tuple(site.structures),
         )
 
 

@@ -129,9 +129,10 @@ class Problem:
             self.tx = Point(*self.ref_m)
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
         self.clearance_given = getattr(sc.site, "tx_clearance_m", None) is not None
-        from snrgain.model.scatter import modelled, tx_vertical
+        from snrgain.model.scatter import modelled, structure_scatterers, tx_vertical
 
         self.scatterer = tx_vertical(sc) if self.tx is not None else None
+        self.structures = structure_scatterers(sc)
         self.cost_computed = [modelled(a.at((0.0, 0.0))) for a in self.base]
         fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in self.names and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
@@ -189,15 +190,20 @@ class Problem:
         return gains - self.tx_costs_db(ants)
 
     def tx_costs_db(self, ants) -> np.ndarray:
-        """What the transmitting vertical, in the site's tx_state, takes from each placed antenna's RDF [dB] (the
-        SNR gain's change under a uniform sky: snrgain.model.scatter), 0 where it is not computed (long wires, which
-        keep the clearance rule instead)."""
-        from snrgain.model.scatter import tx_cost
+        """What the transmitting vertical, in the site's tx_state, and the site's structures take from each placed
+        antenna's RDF [dB] (the SNR gain's change under a uniform sky: snrgain.model.scatter; the scatterers one by
+        one, summed), 0 where it is not computed (long wires, which keep the clearance rule instead)."""
+        from snrgain.model.scatter import structure_scatterers, tx_cost
 
-        if self.scatterer is None:
-            return np.zeros(len(ants))
-        costs = [tx_cost(self.sc, a, tx=self.scatterer) for a in ants]
-        return np.array([0.0 if c is None else c["cost_db"] for c in costs])
+        total = np.zeros(len(ants))
+        if self.scatterer is not None:
+            costs = [tx_cost(self.sc, a, tx=self.scatterer) for a in ants]
+            total += [0.0 if c is None else c["cost_db"] for c in costs]
+        for _, st, _ in self.structures:
+            if st is not None:
+                costs = [tx_cost(self.sc, a, tx=st, states={"as built": st.load_ohm}) for a in ants]
+                total += [0.0 if c is None else c["cost_db"] for c in costs]
+        return total
 
     def snr_gain_db(self, d: Design, i: int) -> float:
         """:meth:`snr_gains_db` of one design."""
