@@ -193,7 +193,7 @@ class Problem:
         """What the transmitting vertical, in the site's tx_state, and the site's structures take from each placed
         antenna's RDF [dB] (the SNR gain's change under a uniform sky: snrgain.model.scatter; the scatterers one by
         one, summed), 0 where it is not computed (long wires, which keep the clearance rule instead)."""
-        from snrgain.model.scatter import structure_scatterers, tx_cost
+        from snrgain.model.scatter import tx_cost
 
         total = np.zeros(len(ants))
         if self.scatterer is not None:
