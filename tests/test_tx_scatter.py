@@ -335,3 +335,13 @@ def test_a_grounded_tower_is_a_scatterer_too():
     assert not [n for n in snrgain.evaluate(far).notices if n.code == "structure-cost"]
     tall = text.replace('height = "18 m" }', 'height = "40 m" }')
     assert [n.code for n in snrgain.evaluate(tall).notices if "structure" in n.code] == ["structure-not-computed"]
+
+
+def test_a_detuning_reactance_needs_the_detuned_state():
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    with pytest.raises(ScenarioError, match="tx_detune_reactance"):
+        snrgain.evaluate(SMALL_LOT.format(extra='tx_detune_reactance = "2000 ohm"'))
+    with pytest.raises(ScenarioError, match="tx_state"):
+        snrgain.evaluate(SMALL_LOT.format(extra='tx_state = "off"'))

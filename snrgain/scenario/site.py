@@ -95,6 +95,15 @@ class SiteSection(StrictModel):
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""
 
     @model_validator(mode="after")
+    def _detuning(self):
+        if self.tx_detune_reactance is not None and self.tx_state != "detuned":
+            raise ValueError(
+                f"tx_detune_reactance: {self.tx_detune_reactance:g} ohm is given with tx_state = "
+                f'{self.tx_state!r}; a detuning reactance applies only with tx_state = "detuned"'
+            )
+        return self
+
+    @model_validator(mode="after")
     def _outlines(self):
         from snrgain.decide.lot import polygon
 
