@@ -44,7 +44,11 @@ tall: taller ones are refused); an open base stops the base current and with it 
 model, while a real open vertical still carries a small current (a wire a quarter wave long, cut at its base,
 resonates only near twice the frequency: NEC shows the residue, tests/nec/scatter.json); long wires are not
 modelled this way (the field along a long wire is not one plane wave): they keep the clearance rule.
-The vertical's wave tilt over lossy ground (its radial E) is left out.
+A loop takes the vertical's field at three points along its width (its grazing response fitted as a row of
+point receivers) plus the circulation of the vertical's radial field along a top and a bottom wire at the loop's
+lowest and highest points: exact in form for a rectangle (a flag), an approximation for the other shapes
+(pennant, delta, diamond), which the NEC-2 set does not cover.  The vertical's wave tilt over lossy ground (the
+surface wave's radial E) is left out.
 """
 
 from __future__ import annotations
