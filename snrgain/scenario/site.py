@@ -20,6 +20,7 @@ from snrgain.fields import (
     quantity,
 )
 from snrgain.physics.ground import Ground, GroundSpread
+from snrgain.scenario.structures import Structure, check_detuning
 
 
 def _latlon_checked(value):
@@ -53,23 +54,6 @@ class KeepOut(StrictModel):
     """Corners [east, north] on the site plan (or { latlon = [...] }), in order around the edge."""
 
 
-class Structure(StrictModel):
-    """A nearby metal structure that re-radiates (snrgain.model.scatter): a tower, another vertical, a mast."""
-
-    name: str
-    position: PlanPoint
-    """Its foot on the site plan [east, north]."""
-    height: quantity("length", ge=0.5, le=300.0)
-    top_loading: quantity("length", ge=0.0, le=300.0) = 0.0
-    """Electrical length a top hat or a beam on top adds [m] (as the vertical family's top_loading)."""
-    radius: quantity("length", ge=0.001, le=3.0) = 0.1
-    """Its equivalent wire radius [m] (a lattice tower: about a third of its face width, common practice)."""
-    base_load: quantity("resistance", ge=0.0, le=1e6) = 0.0
-    """What connects its foot to the ground [ohm]: 0 grounded (a tower bonded to its ground rods), or a resistance."""
-    ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
-    """The loss of its ground connection [ohm]."""
-
-
 class SiteSection(StrictModel):
     name: str = "unnamed site"
     latitude: Latitude
@@ -81,32 +65,22 @@ class SiteSection(StrictModel):
     keep_out: list[KeepOut] = Field(default_factory=list, max_length=64)
     """Areas no antenna may enter: the house, a road, the transmitting vertical's radial field."""
     tx_clearance: quantity("length", ge=0.0, le=2000.0) | None = None
-    """How far receiving antennas should stay from the transmitting vertical [m]: a hard rule when given (default:
-    none for antennas whose coupling to the vertical is computed, half a wavelength for long wires)."""
+    """How far receiving antennas must stay from the TX vertical [m], when given (else snrgain.model.scatter)."""
     tx_state: Literal["resonant", "detuned"] = "resonant"
-    """The transmitting vertical's state while the station receives: its base on the transmitter's feed, or
-    detuned (the feed opened by a relay, or tx_detune_reactance across its base): snrgain.model.scatter."""
+    """The TX vertical while receiving: on its feed, or detuned (relay open, or tx_detune_reactance)."""
     tx_detune_reactance: quantity("resistance", ge=-100000.0, le=100000.0) | None = None
     """The detuning reactance across the vertical's base when detuned [ohm] (None: the feed open)."""
     structures: list[Structure] = Field(default_factory=list, max_length=16)
-    """Nearby structures that re-radiate: towers, other verticals (name, position, height ...)."""
+    """Nearby structures that re-radiate: towers, other verticals."""
     units: Literal["m", "ft"] | None = None
     """The unit lengths are shown in (terminal, report, build sheet, layout); default: the unit the file's lengths
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""
 
     @model_validator(mode="after")
-    def _detuning(self):
-        if self.tx_detune_reactance is not None and self.tx_state != "detuned":
-            raise ValueError(
-                f"tx_detune_reactance: {self.tx_detune_reactance:g} ohm is given with tx_state = "
-                f'{self.tx_state!r}; a detuning reactance applies only with tx_state = "detuned"'
-            )
-        return self
-
-    @model_validator(mode="after")
     def _outlines(self):
         from snrgain.decide.lot import polygon
 
+        check_detuning(self.tx_state, self.tx_detune_reactance)
         if self.lot is not None:
             polygon(self.plan_outline(self.lot, "lot"), "lot")
         for k in self.keep_out:
@@ -148,14 +122,12 @@ class Site:
     keep_out: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
     """Areas no antenna may enter: (name, outline [m east, m north])."""
     tx_clearance_m: float | None = None
-    """How far receiving antennas should stay from the transmitting vertical [m]; None: the cost computed
-    (snrgain.model.scatter), half a wavelength for long wires."""
+    """How far receiving antennas must stay from the TX vertical [m]; None: the cost computed (model.scatter)."""
     length_unit: str = "m"
     """The unit the scenario's lengths are shown in ("m" or "ft"): the file's (snrgain.units.length_unit_of)."""
     tx_state: str = "resonant"
-    """The transmitting vertical's state while receiving: "resonant" or "detuned"."""
     tx_detune_reactance_ohm: float | None = None
-    """The detuning reactance across its base when detuned [ohm]; None: the feed open."""
+    """The TX vertical while receiving ("resonant" or "detuned") and its detuning reactance [ohm] (None: open)."""
     structures: tuple = ()
     """Nearby structures that re-radiate (validated [site] structures entries, SI)."""
 
