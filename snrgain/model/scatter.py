@@ -67,7 +67,11 @@ def _metrics(ev, eh, az, el, fwd_az, fwd_el):
     mean = float(np.sum(g[:-2] * w[:-2]) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi))
     fwd, back = float(g[-2]), float(g[-1])
     db = lambda x: 10 * np.log10(max(x, 1e-30))  # noqa: E731
-    return {"rdf_db": db(fwd) - db(mean), "front_to_back_db": db(fwd) - db(back), "forward_gain_dbi": db(fwd)}
+    return {
+        "rdf_db": float(db(fwd) - db(mean)),
+        "front_to_back_db": float(db(fwd) - db(back)),
+        "forward_gain_dbi": float(db(fwd)),
+    }
 
 
 def structure_scatterers(sc) -> list[tuple[str, phys.TxVertical | None, float]]:
@@ -121,9 +125,9 @@ def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states
     for name, load in states.items():
         m = _metrics(*phys.with_vertical(antenna, tx.with_load(load), f, az, el, at_m=at, terms=terms), az, el, 0, 0)
         out[name] = {
-            "rdf_change_db": m["rdf_db"] - alone["rdf_db"],
-            "front_to_back_db": m["front_to_back_db"],
-            "forward_gain_change_db": m["forward_gain_dbi"] - alone["forward_gain_dbi"],
+            "rdf_change_db": float(m["rdf_db"] - alone["rdf_db"]),
+            "front_to_back_db": float(m["front_to_back_db"]),
+            "forward_gain_change_db": float(m["forward_gain_dbi"] - alone["forward_gain_dbi"]),
         }
     out["cost_db"] = -out[state]["rdf_change_db"]
     from snrgain.model.placed import antenna_point
