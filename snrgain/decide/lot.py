@@ -13,7 +13,10 @@ builder may know better): an antenna leaving the lot, one entering a
 keep-out area (the house, a road, the transmitting vertical's radial
 field), two wires crossing, a receiving antenna within ``tx_clearance`` of
 the transmitting vertical (the reference, when it is a vertical, at its
-position or else at the plan's origin when the site has a lot), and a
+position or else at the plan's origin when the site has a lot: the user's
+clearance for every antenna; without one, half a wavelength only for the
+antennas whose coupling to the vertical is not computed, the others' cost
+being computed by snrgain.model.scatter), and a
 placed noise source inside a keep-out area (a house is where sources often
 are: it is said, not refused), and plan points that look like a latitude and
 longitude written as metres (``[51.4012, -0.1203]`` at a site at 51.40 N,
@@ -130,7 +133,8 @@ def footprint(antenna):
 
 
 def tx_clearance_m(site, freq_hz: float) -> float:
-    """The distance to keep from the transmitting vertical [m]: as given, else half a wavelength."""
+    """The distance to keep from the transmitting vertical [m]: as given, else half a wavelength (applied without a
+    given clearance only to antennas whose coupling to the vertical is not computed)."""
     given = getattr(site, "tx_clearance_m", None)
     return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * C_M_PER_S / freq_hz
 
@@ -177,15 +181,23 @@ def site_notices(sc) -> list[Notice]:
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
     ref = sc.reference
     # Where the TX vertical stands: its position, or the plan's origin when the site has a lot; with neither there
-    # is no plan to place it on (element positions of an array may then be relative), so nothing is said.
+    # is no plan to place it on (element positions of an array may then be relative), so nothing is said.  A
+    # clearance the user gives is a hard rule for every antenna; without one, an antenna whose coupling to the
+    # vertical is computed (snrgain.model.scatter: tx-vertical-cost, in the decisions) is not flagged by distance,
+    # and the others (long wires, pattern tables) keep the half-wave rule.
     if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
+        from snrgain.model.scatter import modelled
+
         tx = Point(*(ref.params.position or (0.0, 0.0)))
         clear = tx_clearance_m(site, sc.freq_hz)
+        given = getattr(site, "tx_clearance_m", None) is not None
         for ant, shape in shapes:
-            if shape is not None:
+            if shape is not None and (given or not modelled(ant)):
                 d = float(shape.distance(tx))
                 if d < clear:
-                    out.append(Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear}))
+                    out.append(
+                        Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear, "given": given})
+                    )
     for src in sc.noise.local:
         if src.position_m is not None:
             for name, area in keep:

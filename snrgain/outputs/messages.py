@@ -19,6 +19,13 @@ def _assumed(keys) -> str:
     return f" (its {', '.join(keys)} assumed: give them in [chain.preamp] or [receiver] from the datasheet)"
 
 
+_DETUNE_CAUTION = (
+    "; detune it while receiving: a relay opening its feed (or switching in a detuning reactance), rated for the "
+    "transmitter's power and voltage and switched so that the transmitter can never key into it open, per "
+    "licensed practice and the equipment's ratings"
+)
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
@@ -56,11 +63,36 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "wires-cross":
         return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
     if n.code == "near-tx-vertical":
+        how = "your clearance" if v.get("given", True) else "half a wavelength: its coupling is not computed for this"
         return (
             f"{n.antenna}: comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
-            f"{length_text(v['clearance_m'], unit, 0)}): a resonant vertical nearby re-radiates what it receives and "
-            "distorts the pattern; detuning it while receiving (opening its feed, or a detuning network) is the usual "
-            "cure"
+            f"{length_text(v['clearance_m'], unit, 0)}, {how} antenna): a resonant vertical nearby re-radiates what "
+            "it receives and distorts the pattern; detuning it while receiving (opening its feed, or a detuning "
+            "network) is the usual cure" + (_DETUNE_CAUTION if not v.get("given", True) else "")
+        )
+    if n.code == "tx-vertical-cost":
+        st = v["state"]
+        other = "detuned" if st == "resonant" else "resonant"
+        return (
+            f"{n.antenna}: the transmitting vertical {length_text(v['distance_m'], unit, 0)} away, {st}, costs "
+            f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
+            f"{v[f'{st}_front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward "
+            f"gain {v[f'{st}_forward_gain_change_db']:+.1f} dB. {other.capitalize()}: RDF "
+            f"{v[f'{other}_rdf_change_db']:+.1f} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
+            + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
+        )
+    if n.code == "structure-cost":
+        return (
+            f"{n.antenna}: the structure {v['structure']!r} {length_text(v['distance_m'], unit, 0)} away costs "
+            f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
+            f"{v['front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward gain "
+            f"{v['forward_gain_change_db']:+.1f} dB: move the antenna, or break the structure's resonance (insulate "
+            "its foot or change what loads it) where that is safe and its lightning protection allows"
+        )
+    if n.code == "structure-not-computed":
+        return (
+            f"the structure {v['structure']!r} is {v['height_wavelengths']:.2f} wavelengths tall: its re-radiation is "
+            "modelled up to 0.3 wavelength, so what it does to the antennas is not computed"
         )
     if n.code == "strong-signal-overload":
         return (

@@ -20,6 +20,7 @@ from snrgain.fields import (
     quantity,
 )
 from snrgain.physics.ground import Ground, GroundSpread
+from snrgain.scenario.structures import Structure, check_detuning
 
 
 def _latlon_checked(value):
@@ -64,7 +65,13 @@ class SiteSection(StrictModel):
     keep_out: list[KeepOut] = Field(default_factory=list, max_length=64)
     """Areas no antenna may enter: the house, a road, the transmitting vertical's radial field."""
     tx_clearance: quantity("length", ge=0.0, le=2000.0) | None = None
-    """How far receiving antennas should stay from the transmitting vertical [m] (default: half a wavelength)."""
+    """How far receiving antennas must stay from the TX vertical [m], when given (else snrgain.model.scatter)."""
+    tx_state: Literal["resonant", "detuned"] = "resonant"
+    """The TX vertical while receiving: on its feed, or detuned (relay open, or tx_detune_reactance)."""
+    tx_detune_reactance: quantity("resistance", ge=-100000.0, le=100000.0) | None = None
+    """The detuning reactance across the vertical's base when detuned [ohm] (None: the feed open)."""
+    structures: list[Structure] = Field(default_factory=list, max_length=16)
+    """Nearby structures that re-radiate: towers, other verticals."""
     units: Literal["m", "ft"] | None = None
     """The unit lengths are shown in (terminal, report, build sheet, layout); default: the unit the file's lengths
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""
@@ -73,6 +80,7 @@ class SiteSection(StrictModel):
     def _outlines(self):
         from snrgain.decide.lot import polygon
 
+        check_detuning(self.tx_state, self.tx_detune_reactance)
         if self.lot is not None:
             polygon(self.plan_outline(self.lot, "lot"), "lot")
         for k in self.keep_out:
@@ -114,9 +122,14 @@ class Site:
     keep_out: tuple[tuple[str, tuple[tuple[float, float], ...]], ...] = ()
     """Areas no antenna may enter: (name, outline [m east, m north])."""
     tx_clearance_m: float | None = None
-    """How far receiving antennas should stay from the transmitting vertical [m]; None: half a wavelength."""
+    """How far receiving antennas must stay from the TX vertical [m]; None: the cost computed (model.scatter)."""
     length_unit: str = "m"
     """The unit the scenario's lengths are shown in ("m" or "ft"): the file's (snrgain.units.length_unit_of)."""
+    tx_state: str = "resonant"
+    tx_detune_reactance_ohm: float | None = None
+    """The TX vertical while receiving ("resonant" or "detuned") and its detuning reactance [ohm] (None: open)."""
+    structures: tuple = ()
+    """Nearby structures that re-radiate (validated [site] structures entries, SI)."""
 
     @classmethod
     def of(cls, site: SiteSection, length_unit: str | None = None) -> Site:
@@ -132,6 +145,9 @@ class Site:
             tuple((k.name, site.plan_outline(k.outline)) for k in site.keep_out),
             site.tx_clearance,
             length_unit or site.units or "m",
+            site.tx_state,
+            site.tx_detune_reactance,
+            tuple(site.structures),
         )
 
 

@@ -3,7 +3,10 @@
 A candidate with a ``place`` table (``place = { bearing = ["20 deg", "70 deg"],
 length = ["150 m", "300 m"] }``) may stand anywhere on the lot (``[site]
 lot``) outside the keep-out areas and clear of the transmitting vertical
-(``[site] tx_clearance``), at least 10 m from any other wire (common
+(``[site] tx_clearance`` when given, a hard rule; without it long wires keep
+half a wavelength and every other antenna's score carries what the vertical,
+in ``[site] tx_state``, costs its RDF where it stands: snrgain.model.scatter),
+at least 10 m from any other wire (common
 practice: closer, wires couple), with its bearing
 and length inside the ranges given (fixed where none is given).
 
@@ -125,6 +128,12 @@ class Problem:
 
             self.tx = Point(*self.ref_m)
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
+        self.clearance_given = getattr(sc.site, "tx_clearance_m", None) is not None
+        from snrgain.model.scatter import modelled, structure_scatterers, tx_vertical
+
+        self.scatterer = tx_vertical(sc) if self.tx is not None else None
+        self.structures = structure_scatterers(sc)
+        self.cost_computed = [modelled(a.at((0.0, 0.0))) for a in self.base]
         fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in self.names and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
@@ -177,7 +186,24 @@ class Problem:
         ants = [ant0.at((d.east_m, d.north_m)) for d in designs]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
-        return pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i]]
+        gains = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i]]
+        return gains - self.tx_costs_db(ants)
+
+    def tx_costs_db(self, ants) -> np.ndarray:
+        """What the transmitting vertical, in the site's tx_state, and the site's structures take from each placed
+        antenna's RDF [dB] (the SNR gain's change under a uniform sky: snrgain.model.scatter; the scatterers one by
+        one, summed), 0 where it is not computed (long wires, which keep the clearance rule instead)."""
+        from snrgain.model.scatter import tx_cost
+
+        total = np.zeros(len(ants))
+        if self.scatterer is not None:
+            costs = [tx_cost(self.sc, a, tx=self.scatterer) for a in ants]
+            total += [0.0 if c is None else c["cost_db"] for c in costs]
+        for _, st, _ in self.structures:
+            if st is not None:
+                costs = [tx_cost(self.sc, a, tx=st, states={"as built": st.load_ohm}) for a in ants]
+                total += [0.0 if c is None else c["cost_db"] for c in costs]
+        return total
 
     def snr_gain_db(self, d: Design, i: int) -> float:
         """:meth:`snr_gains_db` of one design."""
@@ -208,7 +234,9 @@ class Problem:
         for (name, _), k in zip(self.sc.site.keep_out, self.keep):
             inter = shape.intersection(k)
             out[f"keep-out area {name!r}"] = inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
-        if self.tx is not None:
+        if self.tx is not None and (self.clearance_given or not self.cost_computed[self.names.index(d.name)]):
+            # a given clearance is a hard rule; without one only the antennas whose coupling is not computed (long
+            # wires) keep half a wavelength (the others' cost is taken from their score: tx_costs_db)
             out[f"{length_text(self.clearance, self.sc.site.length_unit, 0)} from the transmitting vertical"] = max(
                 0.0, self.clearance - shape.distance(self.tx)
             )

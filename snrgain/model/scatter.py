@@ -1,0 +1,181 @@
+"""What the transmitting vertical next door costs each receiving antenna, computed (snrgain.physics.scatter).
+
+The vertical is the scenario's reference when it is of a family that transmits (``resonant_tx``) and stands on
+the plan (its ``position``, or the plan's origin when the site has a lot: the rule of snrgain.decide.lot).  Its
+state while the station receives is ``[site] tx_state``: "resonant" (its base on the transmitter's 50 ohm feed)
+or "detuned" (the feed opened by a relay, or ``[site] tx_detune_reactance`` across the base).  For each
+candidate that stands on the plan and whose response has a phase, :func:`tx_cost` gives, for both states, the
+change of its RDF toward its favoured direction (its bearing, else its strongest direction, at 20 deg elevation
+or the antenna's own auto_elevation), of its front-to-back and of its forward gain.  The RDF change is the SNR
+gain's change under a uniform sky (DESIGN.md, SNR): the figure the notice warns on above
+:data:`COST_WARNING_DB`.  Long wires and phasing units are not computed here (the field of a vertical a few
+metres away is not one plane wave along a long wire): they keep the clearance rule.
+
+Other structures (``[site] structures``: a tower, another vertical) are scatterers of the same kind, each a
+monopole of its height and top loading loaded at its foot by its base_load (0: grounded); each is taken alone
+(the coupling between two scatterers, a second-order term, is left out).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from snrgain.model.notices import Notice
+from snrgain.physics import scatter as phys
+
+COST_WARNING_DB = 1.0
+"""A vertical that takes more than this from an antenna's RDF (its SNR gain under a uniform sky) in the state the
+user runs it is warned about (the issue's threshold; an assumption of snrgain)."""
+FORWARD_ELEVATION_RAD = np.radians(20.0)
+_AZ_STEP_DEG, _EL_STEP_DEG = 4.0, 2.0
+
+
+def _grid():
+    az = np.radians(np.arange(0.0, 360.0, _AZ_STEP_DEG))
+    el = np.radians(np.arange(0.5 * _EL_STEP_DEG, 90.0, _EL_STEP_DEG))
+    a, e = np.meshgrid(az, el, indexing="ij")
+    return a.ravel(), e.ravel()
+
+
+def tx_vertical(sc, *, state: str | None = None) -> phys.TxVertical | None:
+    """The transmitting vertical of a scenario as a scatterer in ``state`` (default: the site's tx_state), or None
+    where the reference is no transmitting vertical or stands on no plan."""
+    ref = sc.reference
+    site = sc.site
+    if not ref.resonant_tx or (ref.params.position is None and site.lot_m is None):
+        return None
+    state = state or getattr(site, "tx_state", "resonant")
+    load = phys.state_load(state, getattr(site, "tx_detune_reactance_ohm", None))
+    return phys.TxVertical(ref, tuple(float(x) for x in (ref.params.position or (0.0, 0.0))), load)
+
+
+def modelled(antenna) -> bool:
+    """Whether the vertical's effect on ``antenna`` is computed (a compact antenna or an array, with phase, on the
+    plan)."""
+    from snrgain.antennas.base import Antenna
+
+    if antenna.long_wire or antenna.composite:
+        return False
+    if type(antenna).complex_response is Antenna.complex_response:
+        return False
+    return antenna.params.position is not None or getattr(antenna, "positions", None) is not None
+
+
+def _metrics(ev, eh, az, el, fwd_az, fwd_el):
+    g = np.abs(ev) ** 2 + np.abs(eh) ** 2
+    w = np.cos(el)
+    mean = float(np.sum(g[:-2] * w[:-2]) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi))
+    fwd, back = float(g[-2]), float(g[-1])
+    db = lambda x: 10 * np.log10(max(x, 1e-30))  # noqa: E731
+    return {
+        "rdf_db": float(db(fwd) - db(mean)),
+        "front_to_back_db": float(db(fwd) - db(back)),
+        "forward_gain_dbi": float(db(fwd)),
+    }
+
+
+def structure_scatterers(sc) -> list[tuple[str, phys.TxVertical | None, float]]:
+    """(name, scatterer or None where too tall for the model, height in wavelengths) of each ``[site] structures``
+    entry: a monopole of its height and top loading over the site's ground, its foot loaded by base_load."""
+    from snrgain.antennas.base import from_si
+    from snrgain.physics.ground import C_M_PER_S
+
+    out = []
+    for st in getattr(sc.site, "structures", ()):
+        g = sc.site.ground
+        ground = "perfect" if g is None else {"permittivity": g.permittivity, "conductivity": g.conductivity_s_per_m}
+        v = from_si("vertical", height=st.height, top_loading=st.top_loading, ground_loss=st.ground_loss, ground=ground)
+        tx = phys.TxVertical(v, tuple(float(x) for x in st.position), complex(st.base_load), float(st.radius))
+        h_wl = (st.height + st.top_loading) * sc.freq_hz / C_M_PER_S
+        out.append((st.name, tx if h_wl <= phys.MAX_TX_HEIGHT_WAVELENGTHS else None, h_wl))
+    return out
+
+
+def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states: dict | None = None) -> dict | None:
+    """The vertical's effect on ``antenna`` (standing at ``at_m``, default its position): {"alone": metrics, then
+    per state (default "resonant" and "detuned"; ``states`` name -> base load for another scatterer) its RDF change,
+    front-to-back and forward-gain change, "state": the state run, "cost_db": the RDF lost in that state,
+    "distance_m"}; None where not computed (:func:`modelled`, no vertical, a vertical too tall for the model)."""
+    tx = tx or tx_vertical(sc)
+    if tx is None or not modelled(antenna):
+        return None
+    f = sc.freq_hz
+    try:
+        phys.check_height(tx, f)
+    except ValueError:
+        return None
+    at = np.asarray(at_m if at_m is not None else (antenna.params.position or (0.0, 0.0)), dtype=float)
+    az, el = _grid()
+    fwd_el = float(getattr(antenna.params, "auto_elevation", FORWARD_ELEVATION_RAD))
+    bearing = getattr(antenna.params, "bearing", None)
+    if bearing is None:
+        ring = np.radians(np.arange(0.0, 360.0, 1.0))
+        ev, eh = antenna.complex_response(f, ring, np.full(ring.shape, fwd_el))
+        bearing = float(ring[np.argmax(np.abs(ev) ** 2 + np.abs(eh) ** 2)])
+    az = np.concatenate([az, [bearing, (bearing + np.pi) % (2 * np.pi)]])
+    el = np.concatenate([el, [fwd_el, fwd_el]])
+    alone = _metrics(*antenna.complex_response(f, az, el), az, el, bearing, fwd_el)
+    terms = phys.coupling_terms(antenna, tx, f, at)
+    if states is None:
+        state = "resonant" if tx.load_ohm == phys.RESONANT_LOAD_OHM else "detuned"
+        states = {"resonant": phys.RESONANT_LOAD_OHM, "detuned": tx.load_ohm if state == "detuned" else None}
+    else:
+        state = next(iter(states))
+    out = {"alone": alone, "state": state, "bearing_rad": bearing}
+    for name, load in states.items():
+        m = _metrics(*phys.with_vertical(antenna, tx.with_load(load), f, az, el, at_m=at, terms=terms), az, el, 0, 0)
+        out[name] = {
+            "rdf_change_db": float(m["rdf_db"] - alone["rdf_db"]),
+            "front_to_back_db": float(m["front_to_back_db"]),
+            "forward_gain_change_db": float(m["forward_gain_dbi"] - alone["forward_gain_dbi"]),
+        }
+    out["cost_db"] = -out[state]["rdf_change_db"]
+    from snrgain.model.placed import antenna_point
+
+    p = antenna_point(antenna, tx.position_m)
+    out["distance_m"] = float(np.hypot(p[0] - tx.position_m[0], p[1] - tx.position_m[1]))
+    return out
+
+
+def tx_notices(sc) -> list[Notice]:
+    """``tx-vertical-cost`` for each antenna the vertical costs more than COST_WARNING_DB of RDF in the user's
+    state (values: state, cost_db, distance_m, and per state its RDF change, front-to-back and forward-gain change,
+    with the antenna's front-to-back alone); ``structure-cost`` likewise for each ``[site] structures`` entry
+    (values: structure, cost_db, distance_m, front_to_back_db, front_to_back_alone_db, forward_gain_change_db),
+    and ``structure-not-computed`` (structure, height_wavelengths) for one too tall for the model."""
+    out = []
+    tx = tx_vertical(sc)
+    for ant in sc.candidates if tx is not None else ():
+        if ant is sc.reference:
+            continue
+        c = tx_cost(sc, ant, tx=tx)
+        if c is None or c["cost_db"] <= COST_WARNING_DB:
+            continue
+        values = {
+            "state": c["state"],
+            "cost_db": c["cost_db"],
+            "distance_m": c["distance_m"],
+            "front_to_back_alone_db": c["alone"]["front_to_back_db"],
+        }
+        for s in phys.TX_STATES:
+            for k, v in c[s].items():
+                values[f"{s}_{k}"] = v
+        out.append(Notice("tx-vertical-cost", ant.name, values))
+    for name, st, h_wl in structure_scatterers(sc):
+        if st is None:
+            out.append(Notice("structure-not-computed", None, {"structure": name, "height_wavelengths": h_wl}))
+            continue
+        for ant in sc.candidates:
+            c = tx_cost(sc, ant, tx=st, states={"as built": st.load_ohm})
+            if c is None or c["cost_db"] <= COST_WARNING_DB:
+                continue
+            values = {
+                "structure": name,
+                "cost_db": c["cost_db"],
+                "distance_m": c["distance_m"],
+                "front_to_back_db": c["as built"]["front_to_back_db"],
+                "front_to_back_alone_db": c["alone"]["front_to_back_db"],
+                "forward_gain_change_db": c["as built"]["forward_gain_change_db"],
+            }
+            out.append(Notice("structure-cost", ant.name, values))
+    return out

@@ -1,0 +1,292 @@
+"""A transmitting vertical next to a receiving antenna: the vertical as a scatterer.
+
+Model
+-----
+The vertical (height h, top loading t, radius a, radial loss R_loss, its base loaded by Z_L: the transmitter's
+feed, 50 ohm, when resonant; an open relay or a detuning reactance when detuned) receives from a plane wave of
+unit field from direction d the open-circuit voltage
+
+    V_v(d) = c_v e_v(d) phi(d),   c_v = lambda sqrt(R_v / (pi eta0)),   R_v = R_rad + R_loss,
+
+e_v the vertical family's complex response (|e_v|^2 its gain: snrgain.antennas.vertical) and phi the incident
+wave's phase at the vertical's place relative to the receiving antenna's phase reference.  (c_v e_v is the
+effective height: a gain G of an antenna of input resistance R is an effective area lambda^2 G / (4 pi), that is
+|h|^2 = lambda^2 G R / (pi eta0); a short monopole over a perfect ground gives |h| = its height, the textbook value:
+Kraus, "Antennas", 2nd ed., Section 2-22 (cited from memory); a test checks it against the induced-EMF mutual
+impedance.)  Its base current is I_v = -V_v / (Z_vv + Z_L), Z_vv the self impedance by the induced-EMF method
+(snrgain.antennas.coupling.monopole_impedance, at the radius) plus R_loss.  That current re-radiates; the receiving
+antenna's open-circuit voltage gains Z_Av I_v, Z_Av the mutual impedance from the vertical's base to the antenna's
+port.  The network equations of two ports (V = Z I, each port's incident-field source added) give, for the
+antenna's port open,
+
+    V_A(d) = V_A,inc(d) - Z_Av V_v(d) / (Z_vv + Z_L).
+
+Z_Av is taken through the antenna's own port response to the vertical's field where it stands (reciprocity; the
+route snrgain.model.placed takes for compact antennas and near sources): the vertical's E_z at the antenna, per
+unit base current, by the closed-form field of a sinusoidal filament and its image (coupling.field_z: near,
+induction and radiation terms; Schelkunoff and Friis 1952, Balanis 2005 eq. (8-53)), is a vertically polarised
+wave arriving along the ground from the vertical's bearing; over a perfect ground a unit incident wave at grazing
+makes a total E_z of -2 (E_theta = 1 points down there), so the antenna sees an incident wave of E_theta = -E_z / 2
+and Z_Av = -c_A e_A,pg(toward the vertical, 0 deg) E_z / 2, e_A,pg its response over a perfect ground.  Over a
+lossy ground E_z is multiplied by Norton's attenuation function at that distance
+(noisemodels.groundwave.attenuation), near 1 within a few hundred metres at these frequencies.  Dividing by c_A:
+
+    e_A,total(d) = e_A(d) + e_A,pg(d_v, 0) (E_z / 2) c_v e_v(d) phi(d) / (Z_vv + Z_L),
+
+the second term vertically polarised only (the vertical radiates no horizontal field).  An array takes the sum
+over its elements through its weights, each element hearing the field where it stands.
+
+Limits (said, not hidden): the antenna is taken as compact, the vertical's wave as plane across it at the field
+of its feed point (an array: each element at its own place); the second-order change of the antenna's own port
+impedance by the vertical (Z_Av Z_vA / (Z_vv + Z_L)) is left out: it moves the antenna's output level a little,
+not its pattern; the vertical's current is sinusoidal (the induced-EMF assumption, good to about 0.3 wavelength
+tall: taller ones are refused); an open base stops the base current and with it the whole re-radiation in this
+model, while a real open vertical still carries a small current (a wire a quarter wave long, cut at its base,
+resonates only near twice the frequency: NEC shows the residue, tests/nec/scatter.json); long wires are not
+modelled this way (the field along a long wire is not one plane wave): they keep the clearance rule.
+A loop takes the vertical's field at three points along its width (its grazing response fitted as a row of
+point receivers) plus the circulation of the vertical's radial field along a top and a bottom wire at the loop's
+lowest and highest points: exact in form for a rectangle (a flag), an approximation for the other shapes
+(pennant, delta, diamond), which the NEC-2 set does not cover.  The vertical's wave tilt over lossy ground (the
+surface wave's radial E) is left out.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
+
+MAX_TX_HEIGHT_WAVELENGTHS = 0.3
+"""The induced-EMF model of the vertical's current holds to about 0.3 wavelength (coupling.py)."""
+DEFAULT_TX_RADIUS_M = 0.025
+"""The transmitting vertical's radius when not given: 50 mm tubing (common practice for a self-supporting
+vertical; an assumption of snrgain)."""
+TX_STATES = ("resonant", "detuned")
+GRAZING_RAD = 1e-3
+"""The elevation the grazing response is taken at: its limit (some families return 0 at exactly 0 deg)."""
+EQUIVALENT_POINTS = 3
+"""Points along a loop's width that carry its grazing response (feed side, middle, far side)."""
+RESONANT_LOAD_OHM = 50.0
+"""The transmitter's feed seen from the vertical's base when it is connected (a 50 ohm system)."""
+
+
+@dataclass(frozen=True)
+class TxVertical:
+    """The transmitting vertical as a scatterer: ``vertical`` an antenna of the vertical family (its height, top
+    loading, radial loss and ground), where it stands [m east, m north], its radius [m] and its base load [ohm]
+    (None: open)."""
+
+    vertical: object
+    position_m: tuple[float, float]
+    load_ohm: complex | None = RESONANT_LOAD_OHM
+    radius_m: float = DEFAULT_TX_RADIUS_M
+
+    def with_load(self, load_ohm: complex | None) -> TxVertical:
+        return TxVertical(self.vertical, self.position_m, load_ohm, self.radius_m)
+
+
+def state_load(state: str, detune_reactance_ohm: float | None = None) -> complex | None:
+    """The base load of a state: resonant, 50 ohm; detuned, the detuning reactance (j X) or open (None)."""
+    if state == "resonant":
+        return RESONANT_LOAD_OHM
+    if state == "detuned":
+        return None if detune_reactance_ohm is None else 1j * float(detune_reactance_ohm)
+    raise ValueError(f"tx_state: {state!r} is not a state; allowed: {', '.join(TX_STATES)}")
+
+
+def check_height(tx: TxVertical, freq_hz: float) -> None:
+    v = tx.vertical
+    h_wl = (v.height_m + v.top_m) * freq_hz / C_M_PER_S
+    if h_wl > MAX_TX_HEIGHT_WAVELENGTHS:
+        raise ValueError(
+            f"the transmitting vertical is {h_wl:.2f} wavelengths tall at {freq_hz / 1e6:g} MHz; its re-radiation is "
+            f"modelled up to {MAX_TX_HEIGHT_WAVELENGTHS} wavelengths"
+        )
+
+
+def self_impedance(tx: TxVertical, freq_hz: float) -> complex:
+    """Z_vv [ohm]: induced-EMF self impedance over a perfect ground plus the radial system's loss."""
+    from snrgain.antennas.coupling import monopole_impedance
+
+    v = tx.vertical
+    return monopole_impedance(float(freq_hz), float(v.height_m), float(v.top_m), float(tx.radius_m)) + float(
+        v.ground_loss_ohm
+    )
+
+
+def effective_height_scale(tx: TxVertical, freq_hz: float) -> float:
+    """c_v = lambda sqrt(R_v / (pi eta0)) [m]: the effective height per unit of the family's complex response."""
+    v = tx.vertical
+    r_v = v.radiation_resistance_ohm(freq_hz) + v.ground_loss_ohm
+    return C_M_PER_S / freq_hz * np.sqrt(r_v / (np.pi * ETA0_OHM))
+
+
+def field_at(tx: TxVertical, freq_hz: float, points_m, z_m) -> np.ndarray:
+    """E_z [V/m] per unit base current at plan points (N, 2) and heights (N,) [m], the ground's surface-wave
+    attenuation applied over a lossy ground."""
+    from snrgain.antennas.coupling import field_z
+
+    v = tx.vertical
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    rho = np.hypot(p[:, 0] - tx.position_m[0], p[:, 1] - tx.position_m[1])
+    rho = np.maximum(rho, 4 * tx.radius_m)
+    z = np.broadcast_to(np.asarray(z_m, dtype=float), rho.shape)
+    ez = np.array([field_z(k, v.height_m, v.top_m, float(r), float(zz)) for r, zz in zip(rho, z)], dtype=complex)
+    ez = ez / np.sin(k * (v.height_m + v.top_m))
+    g = v.ground
+    if g is not None:
+        from noisemodels.groundwave import attenuation, complex_permittivity, numerical_distance
+
+        n2 = complex_permittivity(freq_hz, g.permittivity, g.conductivity_s_per_m)
+        ez = ez * attenuation(numerical_distance(rho, freq_hz, n2, "vertical"))
+    return ez
+
+
+def radial_field_at(tx: TxVertical, freq_hz: float, points_m, z_m) -> np.ndarray:
+    """E_rho [V/m] per unit base current (outward from the vertical) at plan points (N, 2) and heights (N,) [m]: the
+    closed form for a sinusoidal filament and its image without top loading (Balanis, "Antenna Theory", 3rd ed.
+    (2005), eq. (8-52), the dipole of half-length h), times the surface-wave attenuation as for E_z."""
+    v = tx.vertical
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    h = v.height_m + v.top_m
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    rho = np.maximum(np.hypot(p[:, 0] - tx.position_m[0], p[:, 1] - tx.position_m[1]), 4 * tx.radius_m)
+    z = np.broadcast_to(np.asarray(z_m, dtype=float), rho.shape)
+    r1, r2, r0 = np.hypot(rho, z - h), np.hypot(rho, z + h), np.hypot(rho, z)
+    bracket = (
+        (z - h) * np.exp(-1j * k * r1) / r1
+        + (z + h) * np.exp(-1j * k * r2) / r2
+        - 2 * z * np.cos(k * h) * np.exp(-1j * k * r0) / r0
+    )
+    er = 1j * ETA0_OHM / (4 * np.pi * rho) * bracket / np.sin(k * h)
+    g = v.ground
+    if g is not None:
+        from noisemodels.groundwave import attenuation, complex_permittivity, numerical_distance
+
+        n2 = complex_permittivity(freq_hz, g.permittivity, g.conductivity_s_per_m)
+        er = er * attenuation(numerical_distance(rho, freq_hz, n2, "vertical"))
+    return er
+
+
+def loop_correction(part, tx: TxVertical, freq_hz: float, points, z_low: float, z_high: float) -> np.ndarray:
+    """What the loop's horizontal wires add: the circulation of the vertical's radial field along the top and
+    bottom wires, int (E_x,top - E_x,bottom) dx (x from the feed side to the far side), shared as an equal and
+    opposite E_z on the feed and far sides (Faraday: the loop's magnetic response is the circulation of E, here
+    not all on the sides as it is for a plane wave at grazing).  Returns the change of E_z at ``points``."""
+    pts = np.asarray(points, dtype=float)
+    x = np.linspace(0.0, 1.0, 17)
+    line = pts[0][None, :] + np.multiply.outer(x, pts[-1] - pts[0])
+    width = float(np.hypot(*(pts[-1] - pts[0])))
+    u = (pts[-1] - pts[0]) / width
+    d = line - np.asarray(tx.position_m, dtype=float)
+    cos_ux = (d @ u) / np.maximum(np.hypot(d[:, 0], d[:, 1]), 1e-9)
+    top = radial_field_at(tx, freq_hz, line, np.full(len(line), z_high)) * cos_ux
+    bottom = radial_field_at(tx, freq_hz, line, np.full(len(line), z_low)) * cos_ux
+    circ = np.trapezoid(top - bottom, x) * width
+    delta = circ / max(z_high - z_low, 1e-6)
+    out = np.zeros(len(pts), dtype=complex)
+    out[0], out[-1] = 0.5 * delta, -0.5 * delta
+    return out
+
+
+def _centre_height(antenna) -> float:
+    """The height [m] where a compact antenna takes the vertical's field: a loop's middle, a vertical's half."""
+    p = antenna.params
+    low = float(getattr(p, "height", 0.0) or 0.0)
+    span = getattr(p, "loop_height", None)
+    return low + 0.5 * float(span) if span is not None else 0.5 * low if antenna.resonant_tx else low
+
+
+def _perfect_twin(antenna):
+    from snrgain.antennas.base import variant
+
+    return variant(antenna, ground="perfect") if getattr(antenna, "ground", None) is not None else antenna
+
+
+def parts(antenna, freq_hz: float, at_m):
+    """(part, plan point, weight) of each radiating part, and the plan point the antenna's phase refers to: an
+    array's elements through its weights (phases referred to the plan's origin), else the antenna at ``at_m``."""
+    elements = getattr(antenna, "elements", None)
+    positions = getattr(antenna, "positions", None)
+    if elements and positions is not None and len(positions) == len(elements) and not antenna.composite:
+        w = antenna.weights_at(freq_hz)
+        norm = float(np.real(w.conj() @ antenna.norm_matrix(freq_hz) @ w))
+        pos = np.asarray(positions, dtype=float)
+        return [(e, pos[i], complex(w[i]) / np.sqrt(norm)) for i, e in enumerate(elements)], np.zeros(2)
+    at = np.asarray(at_m, dtype=float)
+    return [(antenna, at, 1.0)], at
+
+
+def equivalent_points(part, pos) -> np.ndarray:
+    """Plan points [m] carrying a compact antenna's grazing response: its feed point, and for an antenna with a
+    width along a line (a loop) points along that width (feed side, middle, far side)."""
+    width = getattr(part, "width_m", None)
+    bearing = getattr(part, "line_bearing_rad", None)
+    pos = np.asarray(pos, dtype=float)
+    if width is None or bearing is None:
+        return pos[None, :]
+    u = np.array([np.sin(bearing), np.cos(bearing)])
+    return pos[None, :] + np.multiply.outer(np.linspace(0.0, float(width), EQUIVALENT_POINTS), u)
+
+
+def grazing_weights(twin, freq_hz: float, points, pos) -> np.ndarray:
+    """Amplitudes a_n at ``points`` whose sum sum_n a_n exp(j k u(psi).(x_n - pos)) is the antenna's grazing
+    vertically polarised response over a perfect ground at every bearing psi (least squares over 72 bearings):
+    the antenna as a row of point receivers, so a wave that is not plane across it (the vertical a few metres
+    away) is heard through the field at each point, not through a direction alone."""
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    psi = np.radians(np.arange(0.0, 360.0, 5.0))
+    ev, _ = twin.complex_response(freq_hz, psi, np.full(psi.shape, GRAZING_RAD))
+    u = np.stack([np.sin(psi), np.cos(psi)], axis=1)
+    a = np.exp(1j * k * (u @ (np.asarray(points) - pos).T))
+    coef, *_ = np.linalg.lstsq(a, ev, rcond=None)
+    return coef
+
+
+def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[complex, np.ndarray]:
+    """(sum over parts of weight x e_pg(toward the vertical, grazing) x E_z / 2, the antenna's phase reference
+    [m]); a part with a width takes the field at several points along it (:func:`grazing_weights`)."""
+    items, ref = parts(antenna, freq_hz, at_m)
+    total = 0j
+    for part, pos, weight in items:
+        twin = _perfect_twin(part)
+        points = equivalent_points(part, pos)
+        z = _centre_height(part)
+        span = getattr(part.params, "loop_height", None)
+        if span is None or len(points) == 1:
+            ez = field_at(tx, freq_hz, points, np.full(len(points), z))
+        else:
+            lo, hi = float(part.params.height), float(part.params.height) + float(span)
+            zq = lo + (hi - lo) * (0.5 + 0.5 * np.polynomial.legendre.leggauss(4)[0])
+            ez = np.mean([field_at(tx, freq_hz, points, np.full(len(points), zz)) for zz in zq], axis=0)
+            ez = ez + loop_correction(part, tx, freq_hz, points, lo, hi)
+        if len(points) == 1:
+            d = np.asarray(tx.position_m, dtype=float) - pos
+            bearing = np.array([np.mod(np.arctan2(d[0], d[1]), 2 * np.pi)])
+            ev, _ = twin.complex_response(freq_hz, bearing, np.array([GRAZING_RAD]))
+            total += weight * complex(ev[0]) * ez[0] / 2
+        else:
+            total += weight * complex(np.sum(grazing_weights(twin, freq_hz, points, pos) * ez)) / 2
+    return total, ref
+
+
+def with_vertical(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):
+    """(e_v, e_h) of ``antenna`` standing at ``at_m`` with the vertical beside it (module docstring); ``terms`` the
+    result of :func:`coupling_terms` when already made."""
+    check_height(tx, freq_hz)
+    az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+    ev, eh = antenna.complex_response(freq_hz, az, el)
+    if tx.load_ohm is None:
+        return ev, eh
+    c, ref = coupling_terms(antenna, tx, freq_hz, at_m) if terms is None else terms
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    d = np.asarray(tx.position_m, dtype=float) - ref
+    phi = np.exp(1j * k * np.cos(el) * (d[0] * np.sin(az) + d[1] * np.cos(az)))
+    e_tx, _ = tx.vertical.complex_response(freq_hz, az, el)
+    z = self_impedance(tx, freq_hz) + tx.load_ohm
+    scat = c * effective_height_scale(tx, freq_hz) * e_tx * phi / z
+    return ev + scat, eh

@@ -1,0 +1,347 @@
+"""The transmitting vertical as a scatterer (snrgain.physics.scatter) against NEC-2 and the induced-EMF method.
+
+References: tests/nec/scatter.json, written by tests/nec/make_scatter.py with nec2c (a quarter-wave vertical at
+1.83 MHz, resonant = base loaded by 50 ohm, detuned = base open, 10-80 m broadside of and behind a flag and a pair
+of short verticals, over a perfect and a lossy ground); the mutual impedance of two monopoles by the induced-EMF
+method (snrgain.antennas.coupling, itself checked against Balanis's closed forms in tests/test_coupling.py).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from snrgain.antennas.base import from_si, from_spec
+from snrgain.antennas.coupling import monopole_impedance
+from snrgain.physics import scatter
+from snrgain.physics.scatter import TxVertical, with_vertical
+from tests.nec.necdeck import metrics_toward
+
+REF = json.loads((Path(__file__).parent / "nec" / "scatter.json").read_text())
+F_HZ = REF["freq_mhz"] * 1e6
+_TH, _PH = (a.ravel() for a in np.meshgrid(np.arange(0, 91, 2.0), np.arange(0, 360, 2.0), indexing="ij"))
+_AZ, _EL = np.radians(90.0 - _PH), np.radians(90.0 - _TH)  # NEC's phi from +x (east) counterclockwise
+
+
+def _ground(name):
+    return "perfect" if name == "perfect" else {"permittivity": 13.0, "conductivity": "5 mS/m"}
+
+
+def _antennas(gname):
+    g = _ground(gname)
+    fl, pr = REF["flag"], REF["pair"]
+    flag = from_spec(
+        {
+            "family": "terminated-loop",
+            "width": f"{fl['width_m']} m",
+            "loop_height": f"{fl['loop_height_m']} m",
+            "height": f"{fl['height_m']} m",
+            "termination": f"{fl['termination_ohm']} ohm",
+            "bearing": 270,  # NEC's phi = 180 deg
+            "ground": g,
+            "position": [0, 0],
+        }
+    )
+    pair = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [pr["spacing_m"], 0]],
+            "height": f"{pr['height_m']} m",
+            "steering": "given",
+            "phases": [0, -pr["phase_deg"]],
+            "phase_sense": "lag",
+            "ground": g,
+            "ground_loss": "0 ohm",
+        }
+    )
+    loss = "0 ohm" if gname == "perfect" else f"{REF['tx']['ground_loss_ohm']} ohm"
+    tx = from_spec({"family": "vertical", "height": f"{REF['tx']['height_m']} m", "ground": g, "ground_loss": loss})
+    return {"flag": flag, "pair": pair}, tx
+
+
+_CACHE: dict = {}
+
+
+def _model(case, load):
+    if case["ground"] not in _CACHE:
+        _CACHE[case["ground"]] = _antennas(case["ground"])
+    ants, txa = _CACHE[case["ground"]]
+    t = TxVertical(txa, tuple(case["tx_m"]), load, REF["tx"]["radius_m"])
+    ev, eh = with_vertical(ants[case["antenna"]], t, F_HZ, _AZ, _EL, at_m=(0.0, 0.0))
+    g = 10 * np.log10(np.maximum(np.abs(ev) ** 2 + np.abs(eh) ** 2, 1e-30))
+    return metrics_toward(_TH, _PH, g, forward_phi_deg=180.0 if case["antenna"] == "flag" else 0.0)
+
+
+def _changes(m, alone):
+    return (
+        m["rdf_db"] - alone["rdf_db"],
+        m["forward_gain_dbi"] - alone["forward_gain_dbi"],
+        m["front_to_back_db"],
+    )
+
+
+# The vertical 10 m behind the pair's centre stands 2.5 m from an element: beyond the compact model (the element's
+# current is no longer sinusoidal there); every other case is held.
+CASES = [
+    c
+    for c in REF["cases"]
+    if c["antenna"] != "beverage" and not (c["antenna"] == "pair" and c["place"] == "behind" and c["distance_m"] < 15)
+]
+
+
+@pytest.mark.parametrize("case", CASES, ids=lambda c: f"{c['antenna']}-{c['ground']}-{c['place']}-{c['distance_m']:g}")
+def test_resonant_vertical_changes_as_nec(case):
+    """RDF change within 0.3 dB, forward-gain change within 1 dB, front-to-back within 3 dB of NEC-2's (or both
+    beyond 25 dB), for the vertical resonant (50 ohm at its base)."""
+    alone = _model(case, None)
+    d_rdf, d_gain, fb = _changes(_model(case, 50.0), alone)
+    nec = case["resonant"]
+    n_rdf, n_gain, n_fb = _changes(nec, case["alone"])
+    assert d_rdf == pytest.approx(n_rdf, abs=0.3)
+    assert d_gain == pytest.approx(n_gain, abs=1.0)
+    assert fb == pytest.approx(n_fb, abs=3.0) or min(fb, n_fb) > 25.0
+
+
+def test_flag_20m_cost_and_detuned_recovery():
+    """The issue's check: the flag 20 m from a resonant quarter-wave vertical shows NEC's SNR cost (RDF under a
+    uniform sky) within 2 dB, and detuning recovers it in NEC and in the model alike."""
+    for case in (c for c in REF["cases"] if c["antenna"] == "flag" and c["distance_m"] == 20.0):
+        alone = _model(case, None)
+        cost_model = alone["rdf_db"] - _model(case, 50.0)["rdf_db"]
+        cost_nec = case["alone"]["rdf_db"] - case["resonant"]["rdf_db"]
+        assert cost_model == pytest.approx(cost_nec, abs=2.0)
+        # Detuned (open): NEC's residue of the open wire stays within 0.2 dB of the flag alone; the model's is 0.
+        assert abs(case["alone"]["rdf_db"] - case["detuned"]["rdf_db"]) < 0.2
+        assert abs(case["detuned"]["front_to_back_db"] - case["alone"]["front_to_back_db"]) < 3.0
+        assert case["resonant"]["front_to_back_db"] < case["detuned"]["front_to_back_db"] - 5.0
+
+
+def test_effective_height_gives_induced_emf_mutual_impedance():
+    """Z_21 = -c_A e_A(grazing) E_z / 2 for two verticals equals the induced-EMF mutual impedance (Balanis, eq.
+    (8-62), through coupling.monopole_impedance): the normalisation and sign of the scattered term."""
+    lam = 299792458.0 / F_HZ
+    tx = from_si("vertical", height=lam / 4, ground="perfect", ground_loss=0.0)
+    t = TxVertical(tx, (0.0, 0.0))
+    c = scatter.effective_height_scale(t, F_HZ)
+    assert c * np.sqrt(tx.gain_linear(F_HZ, 0.0, 0.0)) == pytest.approx(lam / np.pi, rel=2e-3)  # |h| = lambda/pi
+    for d in (60.0, 300.0):
+        term, _ = scatter.coupling_terms(tx, t, F_HZ, (d, 0.0))
+        z = monopole_impedance(F_HZ, lam / 4, 0.0, d)
+        assert abs(-term * c - z) < 0.05 * abs(z)
+
+
+def test_open_base_and_detuning_reactance():
+    """An open base leaves the antenna's response as it is; a detuning reactance of a few kohm nearly so; the
+    resonant load changes it."""
+    ants, txa = _antennas("lossy")
+    flag = ants["flag"]
+    az, el = np.radians([270.0, 90.0]), np.radians([20.0, 20.0])
+    bare = flag.complex_response(F_HZ, az, el)[0]
+    t = TxVertical(txa, (4.25, 20.0), None)
+    assert np.allclose(with_vertical(flag, t, F_HZ, az, el, at_m=(0, 0))[0], bare)
+    detuned = with_vertical(flag, t.with_load(scatter.state_load("detuned", 3000.0)), F_HZ, az, el, at_m=(0, 0))[0]
+    resonant = with_vertical(flag, t.with_load(scatter.state_load("resonant")), F_HZ, az, el, at_m=(0, 0))[0]
+    change_detuned, change_resonant = np.abs(detuned - bare), np.abs(resonant - bare)
+    assert np.all(change_detuned < 0.2 * change_resonant)
+    assert change_resonant[0] > 0.05 * abs(bare[0])
+
+
+def test_bad_state_and_tall_vertical():
+    with pytest.raises(ValueError, match="tx_state"):
+        scatter.state_load("off")
+    tall = from_si("vertical", height=60.0, ground="perfect")
+    with pytest.raises(ValueError, match="wavelengths"):
+        scatter.check_height(TxVertical(tall, (0.0, 0.0)), 7.1e6)
+
+
+SMALL_LOT = """
+[site]
+name = "small lot"
+latitude = 44.2
+longitude = -71.3
+lot = [[-30, -30], [60, -30], [60, 40], [-30, 40]]
+{extra}
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[target]]
+name = "Europe"
+bearing = 90
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "40 m"
+
+[[candidate]]
+name = "flag near"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+bearing = 90
+position = [-4.25, 20]
+
+[[candidate]]
+name = "flag far"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+bearing = 90
+position = [40, 0]
+
+[[candidate]]
+name = "pair"
+family = "phased-verticals"
+positions = [[30, 25], [45, 25]]
+height = "6 m"
+bearing = 90
+"""
+
+
+def _tx_codes(extra=""):
+    import snrgain
+
+    r = snrgain.evaluate(SMALL_LOT.format(extra=extra))
+    return {(n.code, n.antenna): n for n in r.notices if "tx" in n.code}
+
+
+def test_small_lot_is_not_flagged_by_distance_alone():
+    """Every antenna stands well inside half a wavelength (82 m); only the one the resonant vertical costs more
+    than 1 dB of RDF is warned about, with both states' numbers; detuned, none is."""
+    codes = _tx_codes()
+    assert not any(code == "near-tx-vertical" for code, _ in codes)
+    assert set(codes) == {("tx-vertical-cost", "flag near")}
+    v = codes[("tx-vertical-cost", "flag near")].values
+    assert v["state"] == "resonant" and v["cost_db"] > 1.0 and abs(v["detuned_rdf_change_db"]) < 0.1
+    assert v["resonant_front_to_back_db"] < v["front_to_back_alone_db"] - 6.0
+    assert not _tx_codes('tx_state = "detuned"')
+    assert not _tx_codes('tx_state = "detuned"\ntx_detune_reactance = "3000 ohm"')
+    hard = _tx_codes('tx_clearance = "50 m"')
+    assert {a for c, a in hard if c == "near-tx-vertical"} == {"flag near", "flag far", "pair"}
+
+
+def test_the_warning_says_the_cautions():
+    from snrgain.outputs.messages import notice_text
+
+    n = _tx_codes()[("tx-vertical-cost", "flag near")]
+    text = notice_text(n)
+    assert "relay" in text and "rated for the transmitter's power" in text and "licensed practice" in text
+
+
+LAYOUT_LOT = """
+[site]
+name = "small lot to place on"
+latitude = 44.2
+longitude = -71.3
+lot = [[-15, -15], [45, -15], [45, 35], [-15, 35]]
+{extra}
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[target]]
+name = "East"
+bearing = 90
+elevation = [10, 25]
+
+[reference]
+name = "TX vertical"
+family = "vertical"
+height = "40 m"
+position = [0, 0]
+
+[[candidate]]
+name = "flag"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+bearing = 90
+place = {{}}
+"""
+
+
+def test_layout_places_by_the_computed_cost_not_a_radius():
+    """Every place on this lot lies inside half a wavelength (82 m) of the vertical: with the clearance rule alone
+    layout refused; now it places the flag, its score carrying the computed cost, and a given tx_clearance is
+    still a hard rule."""
+    import tomllib
+
+    from snrgain.scenario import load
+    from snrgain.tools.layout import Problem
+
+    text = LAYOUT_LOT.format(extra="")
+    pr = Problem(load(text), tomllib.loads(text))
+    found = pr.feasible(0)
+    costs = pr.tx_costs_db([pr.base[0].at((d.east_m, d.north_m)) for d in found])
+    best = pr.search(keep=1)[0].designs[0]
+    best_cost = float(pr.tx_costs_db([pr.base[0].at((best.east_m, best.north_m))])[0])
+    assert costs.max() > 1.0 and best_cost < 1.0  # some places cost over 1 dB; the chosen one does not
+    hard = LAYOUT_LOT.format(extra='tx_clearance = "30 m"')
+    pr_hard = Problem(load(hard), tomllib.loads(hard))
+    assert all(np.hypot(d.east_m, d.north_m) >= 30.0 - 1e-6 for d in pr_hard.feasible(0))
+
+
+def test_beverage_references_bound_the_effect_the_model_does_not_compute():
+    """NEC-2's Beverage cases (100 m, 2 m up, lossy ground): the detuned vertical leaves the wire as it is, and the
+    resonant one moves its RDF by under 1 dB from 10 to 40 m (it even reflects from behind the feed); the model
+    keeps the half-wave clearance for long wires (lot.site_notices), a conservative rule the data do not call for
+    on this wire: kept until long wires are computed."""
+    bev = [c for c in REF["cases"] if c["antenna"] == "beverage" and c["ground"] == "lossy"]
+    assert len(bev) >= 7
+    for c in bev:
+        assert abs(c["detuned"]["rdf_db"] - c["alone"]["rdf_db"]) < 0.1
+        assert abs(c["resonant"]["rdf_db"] - c["alone"]["rdf_db"]) < 1.0
+
+
+def test_a_grounded_tower_is_a_scatterer_too():
+    """A grounded 18 m tower 15 m broadside of a flag on 80 m (0.22 wavelength: near its own resonance) costs the
+    flag as a resonant vertical would; 200 m away it costs nothing; one too tall for the model is said."""
+    import snrgain
+
+    near = '\nstructures = [{ name = "tower", position = [-4.25, 15], height = "18 m" }]'
+    text = SMALL_LOT.format(
+        extra='tx_state = "detuned"\nground = { permittivity = 13, conductivity = "5 mS/m" }' + near
+    ).replace('"1.83 MHz"', '"3.6 MHz"')
+    text = text.replace('height = "40 m"', 'height = "20 m"')
+    r = snrgain.evaluate(text)
+    hit = [n for n in r.notices if n.code == "structure-cost"]
+    assert [n.antenna for n in hit] == ["flag near"] and hit[0].values["cost_db"] > 1.0
+    far = text.replace("[-4.25, 15]", "[-4.25, 215]")
+    assert not [n for n in snrgain.evaluate(far).notices if n.code == "structure-cost"]
+    tall = text.replace('height = "18 m" }', 'height = "40 m" }')
+    assert [n.code for n in snrgain.evaluate(tall).notices if "structure" in n.code] == ["structure-not-computed"]
+
+
+def test_a_detuning_reactance_needs_the_detuned_state():
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    with pytest.raises(ScenarioError, match="tx_detune_reactance"):
+        snrgain.evaluate(SMALL_LOT.format(extra='tx_detune_reactance = "2000 ohm"'))
+    with pytest.raises(ScenarioError, match="tx_state"):
+        snrgain.evaluate(SMALL_LOT.format(extra='tx_state = "off"'))
