@@ -19,11 +19,13 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
     """(plan, columns) for ``bands`` = [(band name, Results), ...]; columns are (band, target name) pairs."""
     names: list[str] = [bands[0][1].reference.name]
     families: dict[str, str] = {}
+    groups: dict[str, str | None] = {}
     for _, r in bands:
         for a in r.candidates:
             if a.name not in names and a.name != r.reference.name:
                 names.append(a.name)
             families.setdefault(a.name, a.family)
+            groups.setdefault(a.name, getattr(a, "group", None))  # a switched antenna's states: one to build
     columns, weights, times, gains = [], [], [], []
     for band, r in bands:
         w = np.array([float(t["weight"]) for t in r.targets])
@@ -45,5 +47,6 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
         max_antennas=max_antennas,
         buildable=buildable,
         target_times=times,
+        groups=[None] + [groups[n] for n in names[1:]],
     )
     return plan, tuple(columns)

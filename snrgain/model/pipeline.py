@@ -83,25 +83,11 @@ def evaluate_bands(
     that file's; problems name their band.  Returns :class:`snrgain.model.bands.BandResults`.  A file of one band
     gives one entry, named by its frequency."""
     from snrgain.decide.bandplan import plan_across_bands
-    from snrgain.errors import ScenarioError
     from snrgain.model.bands import BandResults
-    from snrgain.scenario import read_source
-    from snrgain.scenario.bands import band_label, split_bands
+    from snrgain.scenario import load_bands
 
-    if isinstance(source, dict):
-        data, label, base_dir = source, "<dict>", None
-    else:
-        data, label, base_dir = read_source(source)
-    out = []
-    for name, one in split_bands(data, label):
-        band = name if name is not None else band_label(one.get("band") or {})
-        try:
-            sc = load(one, nside=nside, p372_dir=p372_dir, base_dir=base_dir, label=label, reference=reference)
-        except ScenarioError as exc:
-            if name is None:
-                raise
-            raise ScenarioError(label, [(f'band "{band}": {where}', why) for where, why in exc.problems]) from None
-        out.append((band, evaluate(sc, allow_long=allow_long)))
+    loaded = load_bands(source, nside=nside, p372_dir=p372_dir, reference=reference)
+    out = [(band, evaluate(sc, allow_long=allow_long)) for band, sc in loaded]
     plan, columns = plan_across_bands(out)
     return BandResults(tuple(out), plan, columns)
 

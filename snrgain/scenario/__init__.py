@@ -18,7 +18,7 @@ from snrgain.errors import ScenarioError
 
 from .antennas import PlaceSection, antenna_from_table
 from .band import Band, BandSection
-from .bands import one_band, split_bands
+from .bands import load_bands, one_band, split_bands
 from .compute import Compute, PlanSection, Uncertainty, UncertaintySection
 from .files import MAX_FILE_BYTES, MAX_ITEMS, MAX_NESTING, decode_text, parse_toml, read_source, read_text_file
 from .loading import load
@@ -42,6 +42,7 @@ from .targets import MAX_MIN_ELEVATION_RAD, MIN_BAND_RAD, Target
 from .times import Hours, Months, Time, Times
 
 __all__ = [
+    "load_bands",
     "one_band",
     "split_bands",
     "DECILE_RANGE_DB",

@@ -37,7 +37,7 @@ def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None,
                     f"target {i + 1}.bands",
                     f"no band named {sorted(set(t['bands']) - {here})}; the only band is {here!r}",
                 )
-                for i, t in enumerate(data.get("target") or [])
+                for i, t in enumerate(data.get("target") if isinstance(data.get("target"), list) else [])
                 if isinstance(t, dict) and isinstance(t.get("bands"), list) and set(t["bands"]) - {here}
             ]
             if problems:
@@ -120,3 +120,26 @@ def one_band(data: dict, band: str | None, label: str = "<scenario>") -> dict:
     if band not in names:
         raise ScenarioError(label, [("--band", f"no band named {band!r}; the bands are {', '.join(map(repr, names))}")])
     return parts[names.index(band)][1]
+
+
+def load_bands(source, *, nside=None, p372_dir=None, reference=None):
+    """[(band name, Scenario)] of every band of a scenario (path, TOML text or dict), each loaded as a file of that
+    band alone would be; a file of one band gives one entry named by its frequency.  Problems name their band."""
+    from .files import read_source
+    from .loading import load
+
+    if isinstance(source, dict):
+        data, label, base_dir = source, "<dict>", None
+    else:
+        data, label, base_dir = read_source(source)
+    out = []
+    for name, one in split_bands(data, label):
+        band = name if name is not None else band_label(one.get("band") or {})
+        try:
+            sc = load(one, nside=nside, p372_dir=p372_dir, base_dir=base_dir, label=label, reference=reference)
+        except ScenarioError as exc:
+            if name is None:
+                raise
+            raise ScenarioError(label, [(f'band "{band}": {where}', why) for where, why in exc.problems]) from None
+        out.append((band, sc))
+    return out
