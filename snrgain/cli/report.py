@@ -131,19 +131,20 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
     from snrgain.files import write_set
     from snrgain.outputs.drawing import draw_all
 
-    with progress(len(jobs), "figures") as step:
-        drawn = draw_all(
-            [(partial(fn, results, **kw), fmt, plots.SAVE_OPTIONS) for _, fn, kw in jobs],
-            done=step,
-        )
+    drawn: list[bytes] = []
 
-    def writer(data):
+    def writer(k):
         def write(tmp_path):
-            Path(tmp_path).write_bytes(data)
+            if not drawn:  # the first file draws them all, side by side, inside the set's temporary folder
+                drawn.extend(
+                    draw_all([(partial(fn, results, **kw), fmt, plots.SAVE_OPTIONS) for _, fn, kw in jobs], done=step)
+                )
+            Path(tmp_path).write_bytes(drawn[k])
 
         return write
 
-    # The set is written into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
-    written = write_set(d, {p.name: writer(data) for (p, _, _), data in zip(jobs, drawn)}, overwrite=overwrite)
+    # The set is drawn into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
+    with progress(len(jobs), "figures") as step:
+        written = write_set(d, {p.name: writer(k) for k, (p, _, _) in enumerate(jobs)}, overwrite=overwrite)
     for path in written:
         click.echo(f"wrote {path}", err=True)
