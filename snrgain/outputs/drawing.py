@@ -32,6 +32,23 @@ def figure_bytes(fig, fmt: str, **savefig) -> bytes:
     return buf.getvalue()
 
 
+def _worker_start(parent: int) -> None:
+    """In each worker: die with the command (Linux PR_SET_PDEATHSIG), so a killed command leaves no worker behind
+    holding its output pipes; leave Ctrl-C and SIGTERM to the command, which stops the drawing cleanly."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    try:
+        import ctypes
+
+        ctypes.CDLL(None, use_errno=True).prctl(1, signal.SIGKILL)  # 1: PR_SET_PDEATHSIG
+    except (OSError, AttributeError):  # not Linux: the pool's own shutdown still ends the workers
+        pass
+    if os.getppid() != parent:  # the command died before the line above took effect
+        os._exit(1)
+
+
 def _run(index: int) -> bytes:
     make, fmt, savefig = _JOBS[index]
     return figure_bytes(make(), fmt, **savefig)
@@ -73,7 +90,12 @@ def draw_all(jobs: Sequence[tuple[Callable, str, dict]], *, done: Callable[[], N
     from concurrent.futures import ProcessPoolExecutor
 
     _JOBS = jobs
-    pool = ProcessPoolExecutor(max_workers=n, mp_context=multiprocessing.get_context("fork"))
+    pool = ProcessPoolExecutor(
+        max_workers=n,
+        mp_context=multiprocessing.get_context("fork"),
+        initializer=_worker_start,
+        initargs=(os.getpid(),),
+    )
     try:
         futures = [pool.submit(_run, i) for i in range(len(jobs))]
         for f in futures:
