@@ -112,3 +112,25 @@ def test_bad_band_tables_are_named():
         snrgain.scenario.load(SITE, band="20 m")
     with pytest.raises(ScenarioError, match=r"this scenario has 3 bands"):
         snrgain.scenario.load(SITE)
+
+
+def test_three_bands_with_switched_antennas_build_each_antenna_once():
+    # 160/80/40 m with a four-square switched to four bearings, a reversible two-wire Beverage, a BOG and a flag
+    # pair switched front and back: each band equals a run of that band alone (--band) to 0.01 dB, and the plan
+    # across the bands names each antenna to build once, with the state that serves each band and target.
+    path = REPO / "tests" / "data" / "sites" / "three-bands-switched.toml"
+    br = evaluate_bands(path)
+    for name, r in br.bands:
+        alone = snrgain.evaluate(snrgain.scenario.load(path, band=name))
+        for a, b in zip(r.antennas, alone.antennas):
+            assert a.name == b.name
+            assert a.snr_gain_median_db == pytest.approx(b.snr_gain_median_db, abs=0.01)
+    p = br.plan
+    assert len(p.antennas) == len(set(p.antennas))
+    groups = {a.group for _, r in br.bands for a in r.candidates if a.group}
+    assert groups == {"four-square", "two-wire Beverage", "flag pair"}
+    for rows in p.by_target.values():
+        for s in rows:
+            assert s.group is None or s.group in p.antennas  # a state serves only if its antenna is built
+    text = CliRunner().invoke(cli, ["rank", str(path)]).stdout
+    assert "two-wire Beverage: adds" in text and "serves 160 m, 80 m, 40 m" in text

@@ -12,7 +12,7 @@ from snrgain.antennas.base import variant
 from snrgain.decide.build import build_sheet, nearest_standard_ohm
 from snrgain.model import snr
 from snrgain.tools import wiredesign
-from tests.conftest import REPO
+from tests.conftest import HAVE_P372, P372_DIR, REPO
 
 SCAN = json.loads((REPO / "tests" / "nec" / "termscan.json").read_text())
 GRID = upper_hemisphere(32)
@@ -75,13 +75,19 @@ def _fb(ant, f, bearing):
 
 
 def _scenario_antennas():
+    from snrgain.errors import ScenarioError
     from snrgain.scenario import load, read_source, split_bands
 
     out = []
     for path in sorted([*REPO.glob("scenarios/*.toml"), *REPO.glob("tests/data/sites/*.toml")]):
         data, label, base = read_source(path)
         for band, one in split_bands(data, label):  # a file of several bands: each band's antennas
-            sc = load(one, base_dir=base, label=label)
+            try:
+                sc = load(one, base_dir=base, label=label, p372_dir=P372_DIR if HAVE_P372 else None)
+            except ScenarioError:
+                if HAVE_P372:
+                    raise
+                continue  # asks for the P.372 data, which this machine lacks: its antennas are not collected
             tag = path.stem if band is None else f"{path.stem}-{band}"
             for ant in sc.candidates:
                 if wiredesign.termination_answer(ant, sc.freq_hz) is not None:

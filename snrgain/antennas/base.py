@@ -309,6 +309,8 @@ def variant(antenna: Antenna, **si_values) -> Antenna:
     out = build({**base, **si_values}, si=True)
     if set(si_values) <= {"ground"} and hasattr(out, "keep_steering_from"):
         out.keep_steering_from(antenna)  # a phasing set once stays as set when only the soil is varied
+    if getattr(antenna, "switched", None) is not None:
+        out.switched = antenna.switched  # the same state of the same switched antenna (its resistor chosen, ...)
     return out
 
 

@@ -72,7 +72,7 @@ def band_plan_text(br):
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
         bands = sorted(
-            {br.columns[c][0] for c, rows in p.by_target.items() for srv in rows if srv.antenna == name},
+            {br.columns[c][0] for c, rows in p.by_target.items() for srv in rows if name in (srv.antenna, srv.group)},
             key=[b for b, _ in br.bands].index,
         )
         out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB; serves {', '.join(bands)}\n")
