@@ -83,7 +83,7 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
     for w in results.warnings:
         click.echo(f"warning: {w}", err=True)
     if fmt == "json":
-        text = out.bands_to_json(results) if several else out.to_json(results)
+        text = out.to_json(results)
     elif fmt == "csv":
         text = out.bands_to_csv(results) if several else out.to_csv(results)
     else:

@@ -13,14 +13,14 @@ import numpy as np
 
 from snrgain.model.notices import Notice
 from snrgain.physics import strong as st
+from snrgain.physics.chain import friis
 from snrgain.physics.ground import ETA0_OHM
 
 
 def _gain_before_db(chain) -> tuple[float, int]:
     """(gain [dB] from the terminals to the first active stage's input, that stage's index)."""
     idx = chain.preamp_index if chain.preamp_index is not None else len(chain.stages) - 1
-    g = float(np.prod([s.gain for s in chain.stages[:idx]])) if idx else 1.0
-    return 10.0 * np.log10(g), idx
+    return 10.0 * np.log10(friis(list(chain.stages[:idx]))[1]), idx
 
 
 def with_strong_signals(sc, results):

@@ -13,8 +13,9 @@ from snrgain.model.results import Results
 from snrgain.units import length_both_text, length_text, lengths_text, s_units
 
 
-def to_json(results: Results) -> str:
-    """JSON text of ``results.to_dict()``: sorted keys, non-finite numbers as null."""
+def to_json(results) -> str:
+    """JSON text of ``results.to_dict()`` (a Results, or the BandResults of several bands): sorted keys,
+    non-finite numbers as null."""
     return json.dumps(results.to_dict(), sort_keys=True, indent=2, allow_nan=False) + "\n"
 
 
@@ -39,11 +40,6 @@ def to_csv(results: Results, *, band: str | None = None, header: bool = True) ->
     for row in df[CSV_COLUMNS].itertuples(index=False):
         w.writerow(lead + [f(v) for f, v in zip(as_text, row)])
     return buf.getvalue()
-
-
-def bands_to_json(br) -> str:
-    """JSON text of a scenario of several bands (:meth:`snrgain.model.bands.BandResults.to_dict`)."""
-    return json.dumps(br.to_dict(), sort_keys=True, indent=2, allow_nan=False) + "\n"
 
 
 def bands_to_csv(br) -> str:
