@@ -49,8 +49,15 @@ def _interrupt_on_signals() -> None:
     import sys
     import threading
 
+    resend = []  # the unraisable hook's own signal, sent again after a finaliser swallowed the first
+
     def handler(signum, frame):
-        _received.append(signum)
+        if resend:
+            resend.clear()
+        elif _received:  # a second signal (or both tripped at once) while the first unwinds
+            return
+        else:
+            _received.append(signum)
         for sig in (signal.SIGINT, signal.SIGTERM):
             signal.signal(sig, signal.SIG_IGN)
         raise Interrupted(signum)
@@ -63,6 +70,7 @@ def _interrupt_on_signals() -> None:
             return
         for sig in (signal.SIGINT, signal.SIGTERM):
             signal.signal(sig, handler)
+        resend.append(args.exc_value.signum)
         again = threading.Timer(0.01, os.kill, (os.getpid(), args.exc_value.signum))
         again.daemon = True
         again.start()
@@ -105,28 +113,45 @@ cli.add_command(noise_readings)
 
 
 def main() -> None:
-    """The ``snrgain`` command."""
+    """The ``snrgain`` command.
+
+    A stop signal may arrive at any moment, also while the command is already leaving (an error exit, or the
+    result written a moment before): wherever it lands, the command ends with the signal's code and one line, never
+    a traceback.  The work runs inside two nested ``try`` blocks; the inner one's ``finally`` blocks both signals
+    (they stay pending and die with the process) and ignores them, so a handler can only run inside the outer block,
+    which catches its exception."""
+    import signal
+    import sys
     import warnings
 
-    # Floating-point warnings name source lines, which say nothing to a user; results carry their own checks.
-    warnings.filterwarnings("ignore", category=RuntimeWarning)
-    _interrupt_on_signals()
-    # The command line owns its process: keep freed memory for the next array (snrgain.allocator).
-    from snrgain.allocator import tune
-
-    tune()
+    status: object = 0
     try:
-        cli()
-    except Interrupted as exc:
-        _stopped(exc.signum)
-    except SystemExit:
-        if _received:  # the signal was caught where it could not stop the work (see _interrupt_on_signals)
-            _stopped(_received[0])
-        raise
-    except Exception:
-        if _received:  # a stop whose exception was lost left the work in a state it could not finish from
-            _stopped(_received[0])
-        raise
+        try:
+            # Floating-point warnings name source lines, which say nothing to a user; results carry their own checks.
+            warnings.filterwarnings("ignore", category=RuntimeWarning)
+            _interrupt_on_signals()
+            # The command line owns its process: keep freed memory for the next array (snrgain.allocator).
+            from snrgain.allocator import tune
+
+            tune()
+            cli()
+        except SystemExit as exc:
+            status = exc.code
+        except Exception:
+            if not _received:
+                raise
+            # else a stop whose exception was lost left the work in a state it could not finish from
+        finally:
+            # Blocked in this thread and ignored in the others (numerical libraries start threads of their own, and
+            # at exit Python would hand a caught signal back to the default action, killing the process).
+            signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT, signal.SIGTERM})
+            for sig in (signal.SIGINT, signal.SIGTERM):
+                signal.signal(sig, signal.SIG_IGN)
+    except Interrupted:
+        pass
+    if _received:  # also a signal caught where it could not stop the work (see _interrupt_on_signals)
+        _stopped(_received[0])
+    sys.exit(status)
 
 
 if __name__ == "__main__":  # pragma: no cover
