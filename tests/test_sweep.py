@@ -155,17 +155,19 @@ def test_designs_are_lazy():
 
 def test_chunks_sized_from_the_work_per_design_not_the_shared_set_up(monkeypatch, tmp_path):
     # The first design also builds the shared sky and reference; were its time the measure, every chunk would
-    # hold one design.  Here it takes 0.4 s more and the designs after it nothing more: they run in few chunks.
+    # hold one design.  Here it takes 2 s more, beyond a chunk's 0.6 s of work, and the designs after it nothing
+    # more (each well under 0.3 s, even on a busy machine): they run in few chunks.
     study = _study("Beverage toward Europe: length = 150 m to 330 m by 20 m")
     real, calls = sw.run_designs, []
 
     def timed(st, chunk):
         calls.append(len(chunk))
         if len(calls) == 1:
-            time.sleep(0.4)
+            time.sleep(2.0)
         return real(st, chunk)
 
     monkeypatch.setattr(sw, "run_designs", timed)
+    monkeypatch.setattr(sw, "TARGET_CHUNK_S", 0.6)
     out = tmp_path / "s.csv"
     sw.run(study, out)
     assert sum(calls) == 10 and len(calls) < 10, calls

@@ -8,8 +8,9 @@ go through these functions:
 2. :func:`resolve_sources`: every local level read on the reference antenna becomes the source's strength (its
    Fa), once, here;
 3. :func:`build_sky`: the noise sky for every month and hour (:func:`snrgain.sky.noise.build_skies`);
-4. :func:`steer`: the antennas set under that sky (arrays steered for SNR, phasing units), returned as new
-   antennas;
+4. :func:`with_structures`: each compact candidate beside the transmitting vertical (in the site's tx_state)
+   and the site's structures, their re-radiation in its response (snrgain.model.scatter); then :func:`steer`: the
+   antennas set under that sky (arrays steered for SNR, phasing units), returned as new antennas;
 5. :func:`products`: every antenna's gains (:func:`snrgain.model.snr.antenna_gains`) and temperatures from every
    component, placed sources heard where each antenna stands (:func:`snrgain.model.placed.pickup`, an input of
    :func:`snrgain.model.snr.sky_temperatures`);
@@ -42,6 +43,7 @@ from snrgain.model.products import (
     target_statistic,
 )
 from snrgain.model.results import PatternCuts, Results
+from snrgain.model.scatter import with_structures
 from snrgain.model.spread import snr_spread
 from snrgain.model.steering import nearest_target, repoint, sky_forms, steer, with_antennas, with_candidates
 from snrgain.model.strong import with_strong_signals
@@ -67,7 +69,7 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: boo
     grid = sky_grid(sc)
     sc = resolve_sources(sc)
     skies = build_sky(sc, grid)
-    sc = steer(sc, grid, skies)
+    sc = steer(with_structures(sc), grid, skies)
     nominal = products(sc, sc.antennas, grid, skies)
     spread = snr_spread(sc, grid, skies, nominal)
     results = decide(sc, skies, antenna_results(sc, nominal, skies, spread), pattern_cuts(sc))
@@ -184,7 +186,7 @@ def nominal(sc: Scenario):
     grid = sky_grid(sc)
     sc = resolve_sources(sc)
     skies = build_sky(sc, grid)
-    sc = steer(sc, grid, skies)
+    sc = steer(with_structures(sc), grid, skies)
     p = products(sc, sc.antennas, grid, skies)
     return sc, skies, p, antenna_results(sc, p, skies)
 
@@ -208,6 +210,7 @@ __all__ = [  # the stages, here or in the modules they live in (one import path 
     "strength_offsets_db",
     "build_sky",
     "steer",
+    "with_structures",
     "sky_forms",
     "nearest_target",
     "with_antennas",

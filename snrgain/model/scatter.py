@@ -11,6 +11,12 @@ gain's change under a uniform sky (DESIGN.md, SNR): the figure the notice warns 
 :data:`COST_WARNING_DB`.  Long wires and phasing units are not computed here (the field of a vertical a few
 metres away is not one plane wave along a long wire): they keep the clearance rule.
 
+The ranking hears the vertical too (:func:`with_structures`, a stage of the pipeline after the antennas are set
+under the sky): each computed candidate's response becomes its response with the re-radiation of the vertical in
+the user's state and of every structure added (each taken alone, their shares summed), so its SNR gain, RDF and
+front-to-back in every output are those of the antenna where it stands.  The notices' per-state figures are
+worked from the bare antenna (:func:`bare`).
+
 Other structures (``[site] structures``: a tower, another vertical) are scatterers of the same kind, each a
 monopole of its height and top loading loaded at its foot by its base_load (0: grounded); each is taken alone
 (the coupling between two scatterers, a second-order term, is left out).
@@ -97,6 +103,7 @@ def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states
     front-to-back and forward-gain change, "state": the state run, "cost_db": the RDF lost in that state,
     "distance_m"}; None where not computed (:func:`modelled`, no vertical, a vertical too tall for the model)."""
     tx = tx or tx_vertical(sc)
+    antenna = bare(antenna)
     if tx is None or not modelled(antenna):
         return None
     f = sc.freq_hz
@@ -179,3 +186,123 @@ def tx_notices(sc) -> list[Notice]:
             }
             out.append(Notice("structure-cost", ant.name, values))
     return out
+
+
+# -- the antennas as they stand beside the scatterers (a pipeline stage) -------------------------------------------
+
+_BESIDE_CLASSES: dict[type, type] = {}
+
+
+def bare(antenna):
+    """``antenna`` without the scatterers :func:`beside` added (itself when it has none)."""
+    return getattr(antenna, "bare_antenna", antenna)
+
+
+def _beside_class(cls: type) -> type:
+    """A subclass of an antenna family whose response adds the scatterers' re-radiation (one per family)."""
+    hit = _BESIDE_CLASSES.get(cls)
+    if hit is not None:
+        return hit
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+        ev, eh = cls.complex_response(self, freq_hz, az, el)
+        ev = np.array(ev, dtype=complex)
+        for i, tx in enumerate(self.scatterers):
+            ev = ev + phys.scattered(
+                self.bare_antenna, tx, freq_hz, az, el, at_m=self.scatter_point, terms=self._scatter_terms(freq_hz, i)
+            )
+        return ev, eh
+
+    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        ev, eh = complex_response(self, freq_hz, azimuth_rad, elevation_rad)
+        return np.abs(ev) ** 2, np.abs(eh) ** 2
+
+    def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
+        gv, gh = partial_gains(self, freq_hz, azimuth_rad, elevation_rad)
+        return gv + gh
+
+    def _scatter_terms(self, freq_hz, i):
+        key = (float(freq_hz), i)
+        if key not in self._terms:
+            tx = self.scatterers[i]
+            self._terms[key] = phys.coupling_terms(self.bare_antenna, tx, freq_hz, self.scatter_point)
+        return self._terms[key]
+
+    def at(self, position_m):
+        return beside(self.bare_antenna.at(position_m), self.scatterers)
+
+    def gain_key(self):
+        return None  # its gains depend on where it stands
+
+    def __reduce__(self):
+        return beside, (self.bare_antenna, self.scatterers)
+
+    hit = type(
+        cls.__name__,
+        (cls,),
+        {
+            "__doc__": f"{cls.__name__} beside the site's scatterers (snrgain.model.scatter.beside).",
+            "__module__": __name__,
+            "complex_response": complex_response,
+            "partial_gains": partial_gains,
+            "gain_linear": gain_linear,
+            "_scatter_terms": _scatter_terms,
+            "at": at,
+            "gain_key": gain_key,
+            "__reduce__": __reduce__,
+        },
+    )
+    _BESIDE_CLASSES[cls] = hit
+    return hit
+
+
+def beside(antenna, scatterers):
+    """``antenna`` (a new object, the given one untouched) with the re-radiation of ``scatterers``
+    (:class:`snrgain.physics.scatter.TxVertical`, each in the state it is run in) added to its response."""
+    import copy
+
+    base = bare(antenna)
+    out = copy.copy(base)
+    out.__class__ = _beside_class(type(base))
+    out.bare_antenna = base
+    out.scatterers = tuple(scatterers)
+    out.scatter_point = np.asarray(base.params.position or (0.0, 0.0), dtype=float)
+    out._terms = {}
+    return out
+
+
+def site_scatterers(sc) -> list[phys.TxVertical]:
+    """The scatterers a candidate hears in the ranking: the transmitting vertical in the site's tx_state and each
+    structure as built, those that re-radiate (an open base does not, in this model) and are not too tall."""
+    out = []
+    tx = tx_vertical(sc)
+    if tx is not None:
+        out.append(tx)
+    out.extend(st for _, st, _ in structure_scatterers(sc) if st is not None)
+    kept = []
+    for st in out:
+        if st.load_ohm is None:
+            continue
+        try:
+            phys.check_height(st, sc.freq_hz)
+        except ValueError:
+            continue  # said by the notices (structure-not-computed); the vertical's own height is checked there
+        kept.append(st)
+    return kept
+
+
+def with_structures(sc):
+    """The scenario with each candidate whose coupling is computed (:func:`modelled`) standing beside the site's
+    scatterers (:func:`site_scatterers`): new antennas, phasing units remade over their moved parts; the reference
+    as it is (the transmitting vertical is the scatterer itself).  The scenario itself when nothing changes."""
+    from snrgain.model.steering import repoint, with_antennas
+
+    scat = site_scatterers(sc)
+    if not scat:
+        return sc
+    old = list(sc.antennas)
+    new = [a if k == 0 or not modelled(bare(a)) else beside(a, scat) for k, a in enumerate(old)]
+    if all(a is b for a, b in zip(new, old)):
+        return sc
+    return with_antennas(sc, repoint(new, old))

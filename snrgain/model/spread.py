@@ -108,7 +108,12 @@ def on_ground(sc, antennas, ground) -> list:
     moved = []
     for ant in antennas:
         on_site = not ant.fixed_ground and getattr(ant, "ground", "none") == sc.site.ground
-        moved.append(variant(ant, ground=ground) if on_site and ground is not sc.site.ground else ant)
+        if on_site and ground is not sc.site.ground:
+            from snrgain.model.scatter import bare, beside
+
+            moved_ant = variant(bare(ant), ground=ground)
+            ant = beside(moved_ant, ant.scatterers) if bare(ant) is not ant else moved_ant
+        moved.append(ant)
     return repoint(moved, list(antennas))
 
 

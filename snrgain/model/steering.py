@@ -69,8 +69,13 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
 
     A phasing unit's automatic setting is the best, by the ranking's statistic (the median over its target's
     hours of the SNR gain over the reference), of the maximum-SNR setting and each of its two antennas alone, so
-    it is never worse than the better of its parts toward its target.
+    it is never worse than the better of its parts toward its target (its parts as they stand beside the site's
+    scatterers, :func:`snrgain.model.scatter.with_structures`, which runs before).  An array beside them is
+    steered on its own elements' responses and then put back beside them; a resistor chosen under the sky is
+    scored with the antenna beside them.
     """
+    from snrgain.model.scatter import bare, beside
+
     old = list(sc.antennas)
     order = sorted((k for k, a in enumerate(old) if k > 0 and a.uses_sky), key=lambda k: old[k].sky_order)
     if not order or skies.maps is None:
@@ -79,18 +84,26 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
     ref = None
     for k in order:
         ant = repoint(ants, old)[k]
+        # An antenna beside the site's scatterers (with_structures) is set as itself and put back beside them; a
+        # resistor is scored beside them.
+        put = (lambda a, s=ant.scatterers: beside(a, s)) if bare(ant) is not ant else (lambda a: a)
         if hasattr(ant, "termination_under_sky"):  # a resistor chosen by the ranking's statistic (longwire)
             if ref is None:
                 ref = products(sc, [ants[0]], grid, skies)
             ti = nearest_target(sc, ant.params.bearing)
-            ants[k] = ant.termination_under_sky(
-                sc.freq_hz,
-                lambda a, ref=ref, k=k, ti=ti: _median_gain(sc, grid, skies, ref, a, k, ti),
-                sc.targets[ti].name,
+            ants[k] = put(
+                bare(ant).termination_under_sky(
+                    sc.freq_hz,
+                    lambda a, ref=ref, k=k, ti=ti, put=put: _median_gain(sc, grid, skies, ref, put(a), k, ti),
+                    sc.targets[ti].name,
+                )
             )
             continue
         signal, noise, ti = sky_forms(sc, skies, ant, k)
         note = f"SNR toward {sc.targets[ti].name} under the site's noise"
+        if bare(ant) is not ant:  # an array: steered on its own elements' responses
+            ants[k] = put(bare(ant).under_sky(sc.freq_hz, signal=signal, noise=noise, note=note))
+            continue
         choices = [ant.under_sky(sc.freq_hz, signal=signal, noise=noise, note=note)]
         if ant.composite and ant.optimised:
             for i, part in enumerate(ant.elements):

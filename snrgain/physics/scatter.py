@@ -277,16 +277,22 @@ def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[compl
 def with_vertical(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):
     """(e_v, e_h) of ``antenna`` standing at ``at_m`` with the vertical beside it (module docstring); ``terms`` the
     result of :func:`coupling_terms` when already made."""
-    check_height(tx, freq_hz)
     az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
     ev, eh = antenna.complex_response(freq_hz, az, el)
+    return ev + scattered(antenna, tx, freq_hz, az, el, at_m=at_m, terms=terms), eh
+
+
+def scattered(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):
+    """The vertical's re-radiated share of ``antenna``'s vertically polarised response (the second term of the
+    module docstring's e_A,total): 0 for an open base."""
+    check_height(tx, freq_hz)
+    az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
     if tx.load_ohm is None:
-        return ev, eh
+        return np.zeros(az.shape, dtype=complex)
     c, ref = coupling_terms(antenna, tx, freq_hz, at_m) if terms is None else terms
     k = 2 * np.pi * freq_hz / C_M_PER_S
     d = np.asarray(tx.position_m, dtype=float) - ref
     phi = np.exp(1j * k * np.cos(el) * (d[0] * np.sin(az) + d[1] * np.cos(az)))
     e_tx, _ = tx.vertical.complex_response(freq_hz, az, el)
     z = self_impedance(tx, freq_hz) + tx.load_ohm
-    scat = c * effective_height_scale(tx, freq_hz) * e_tx * phi / z
-    return ev + scat, eh
+    return c * effective_height_scale(tx, freq_hz) * e_tx * phi / z

@@ -304,7 +304,7 @@ class _Shared:
             spec, f"candidate {name!r}", site_ground=self.raw_ground, base_dir=base, freq_hz=sc.freq_hz
         )
         sub = pipeline.with_candidates(sc, [ant], 1 + k)
-        sub = pipeline.steer(sub, self.grid, self.skies)
+        sub = pipeline.steer(pipeline.with_structures(sub), self.grid, self.skies)
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
         return pipeline.antenna_results(sub, p, self.skies)[1]
 
