@@ -37,7 +37,10 @@ def test_every_layout_keeps_the_rules(solved):
         for d, shape in zip(lay.designs, shapes):
             assert lot.covers(shape), d
             assert not any(k.intersects(shape) for k in keep), d
-            assert shape.distance(pr.tx) >= pr.clearance - 1e-6
+            if pr.tx is not None and (pr.clearance_given or not pr.cost_computed[pr.names.index(d.name)]):
+                # a given clearance, or an antenna whose coupling to the vertical is not computed (a score less its
+                # computed cost otherwise: tests/test_tx_scatter.py)
+                assert shape.distance(pr.tx) >= pr.clearance - 1e-6
         wires = [s for s in shapes if s.length > 0]
         for i, a in enumerate(wires):
             for b in wires[i + 1 :]:

@@ -306,16 +306,89 @@ def test_layout_places_by_the_computed_cost_not_a_radius():
     assert all(np.hypot(d.east_m, d.north_m) >= 30.0 - 1e-6 for d in pr_hard.feasible(0))
 
 
-def test_beverage_references_bound_the_effect_the_model_does_not_compute():
-    """NEC-2's Beverage cases (100 m, 2 m up, lossy ground): the detuned vertical leaves the wire as it is, and the
-    resonant one moves its RDF by under 1 dB from 10 to 40 m (it even reflects from behind the feed); the model
-    keeps the half-wave clearance for long wires (lot.site_notices), a conservative rule the data do not call for
-    on this wire: kept until long wires are computed."""
-    bev = [c for c in REF["cases"] if c["antenna"] == "beverage" and c["ground"] == "lossy"]
-    assert len(bev) >= 7
-    for c in bev:
-        assert abs(c["detuned"]["rdf_db"] - c["alone"]["rdf_db"]) < 0.1
-        assert abs(c["resonant"]["rdf_db"] - c["alone"]["rdf_db"]) < 1.0
+def _beverage(gname="lossy"):
+    b = REF["beverage"]
+    return from_spec(
+        {
+            "family": "beverage",
+            "length": f"{b['length_m']} m",
+            "height": f"{b['height_m']} m",
+            "termination": f"{b['termination_ohm']} ohm",
+            "bearing": 90,  # along NEC's +x
+            "ground": _ground(gname),
+            "position": [0, 0],
+            # NEC's decks: the junction resistances subtracted, a source with no load of its own at the feed
+            "feed_ground": "0 ohm",
+            "far_ground": "0 ohm",
+            "turns_ratio": 0.1,
+        }
+    )
+
+
+def test_the_vertical_as_a_column_of_dipoles_is_the_closed_form_over_a_perfect_ground():
+    """field_vector_at (nearground's short dipoles up the vertical) against the closed forms of a sinusoidal
+    filament and its image (Balanis 2005, eqs. (8-52), (8-53): field_at, radial_field_at) over a perfect ground."""
+    lam = 299792458.0 / F_HZ
+    v = from_si("vertical", height=lam / 4, ground="perfect", ground_loss=0.0)
+    t = TxVertical(v, (3.0, -2.0))
+    pts = np.array([[13.0, -2.0], [3.0, 18.0], [53.0, 28.0], [103.0, -2.0], [-200.0, 5.0]])
+    z = np.array([2.0, 0.5, 6.0, 2.0, 10.0])
+    e = scatter.field_vector_at(t, F_HZ, pts, z)
+    ez, er = scatter.field_at(t, F_HZ, pts, z), scatter.radial_field_at(t, F_HZ, pts, z)
+    d = pts - np.array(t.position_m)
+    e_rho = (e[:, 0] * d[:, 0] + e[:, 1] * d[:, 1]) / np.hypot(d[:, 0], d[:, 1])
+    assert np.allclose(e[:, 2], ez, rtol=1e-4, atol=1e-9)
+    assert np.allclose(e_rho, er, rtol=1e-4, atol=1e-9)
+
+
+def test_a_wire_driven_by_a_plane_wave_gives_its_own_pattern_currents():
+    """The reciprocity integral a long wire hears the vertical through (placed._currents_on with a field) gives the
+    line model's own feed current when handed a plane wave (snrgain.model.placed.plane_wave_field): sign and
+    phase included, so the vertical's term adds to the wire's response as it should."""
+    from snrgain.model.placed import plane_wave_field, wire_currents_in_field, wire_samples
+
+    bev = _beverage()
+    x = wire_samples(bev.length_m, F_HZ, 5.0)
+    for az_deg, el_deg in ((90, 20), (270, 20), (45, 10), (180, 35)):
+        az, el = np.radians(az_deg), np.radians(el_deg)
+
+        def field(p, h, az=az, el=el):
+            return plane_wave_field(F_HZ, np.column_stack([p, h]), az, el, bev.ground, "v")
+
+        got = wire_currents_in_field(bev, F_HZ, np.zeros((1, 2)), x, field)[0]
+        want = bev.currents(F_HZ, np.array([az]), np.array([el]))[0]["v"][0]
+        assert abs(got - complex(np.ravel(want)[0])) < 1e-4 * abs(want)
+
+
+BEVERAGE_CASES = [c for c in REF["cases"] if c["antenna"] == "beverage" and c["ground"] == "lossy"]
+
+
+@pytest.mark.parametrize("case", BEVERAGE_CASES, ids=lambda c: f"{c['place']}-{c['distance_m']:g}")
+def test_a_beverage_beside_the_resonant_vertical_changes_as_nec(case):
+    """NEC-2 (tests/nec/scatter.json: a 100 m Beverage 2 m up over eps_r 13, 5 mS/m, the vertical 10-80 m broadside
+    of its middle or 10-40 m behind its feed; NEC-2 holds a wire this low only roughly, DESIGN.md): the model's
+    RDF change within 0.3 dB, forward-gain change within 0.6 dB, front-to-back within 1.5 dB (measured: 0.07,
+    0.36 and 0.9 dB at worst).  Behind the feed the vertical acts as a reflector: front-to-back 19 dB at 10 m
+    against the wire's 10 dB alone, in both."""
+    bev = _beverage()
+    lossy = _antennas("lossy")[1]
+    t = TxVertical(lossy, tuple(case["tx_m"]), 50.0, REF["tx"]["radius_m"])
+
+    def metrics(ev, eh):
+        g = 10 * np.log10(np.maximum(np.abs(ev) ** 2 + np.abs(eh) ** 2, 1e-30))
+        return metrics_toward(_TH, _PH, g, forward_phi_deg=0.0)
+
+    alone = metrics(*bev.complex_response(F_HZ, _AZ, _EL))
+    with_tx = metrics(*with_vertical(bev, t, F_HZ, _AZ, _EL, at_m=(0.0, 0.0)))
+    d_rdf, d_gain, fb = _changes(with_tx, alone)
+    n_rdf, n_gain, n_fb = _changes(case["resonant"], case["alone"])
+    assert alone["rdf_db"] == pytest.approx(case["alone"]["rdf_db"], abs=0.3)
+    assert d_rdf == pytest.approx(n_rdf, abs=0.3)
+    assert d_gain == pytest.approx(n_gain, abs=0.6)
+    assert fb == pytest.approx(n_fb, abs=1.5)
+    opened = metrics(*with_vertical(bev, t.with_load(None), F_HZ, _AZ, _EL, at_m=(0.0, 0.0)))
+    assert opened["rdf_db"] == pytest.approx(alone["rdf_db"], abs=1e-9)  # NEC's open base: within 0.1 dB
+    assert abs(case["detuned"]["rdf_db"] - case["alone"]["rdf_db"]) < 0.1
 
 
 def test_a_grounded_tower_is_a_scatterer_too():

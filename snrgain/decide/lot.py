@@ -179,15 +179,15 @@ def site_notices(sc) -> list[Notice]:
                 continue
             if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
-    ref = sc.reference
+    from snrgain.model.scatter import modelled, tx_antenna
+
+    ref = tx_antenna(sc)
     # Where the TX vertical stands: its position, or the plan's origin when the site has a lot; with neither there
     # is no plan to place it on (element positions of an array may then be relative), so nothing is said.  A
     # clearance the user gives is a hard rule for every antenna; without one, an antenna whose coupling to the
     # vertical is computed (snrgain.model.scatter: tx-vertical-cost, in the decisions) is not flagged by distance,
-    # and the others (long wires, pattern tables) keep the half-wave rule.
-    if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
-        from snrgain.model.scatter import modelled
-
+    # and the others (a two-wire line's reversed port, pattern tables) keep the half-wave rule.
+    if ref is not None:
         tx = Point(*(ref.params.position or (0.0, 0.0)))
         clear = tx_clearance_m(site, sc.freq_hz)
         given = getattr(site, "tx_clearance_m", None) is not None

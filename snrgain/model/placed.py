@@ -195,15 +195,21 @@ LEAD_POINTS = 6
 """Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
 
 
-def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarray:
+def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=None) -> np.ndarray:
     """The feed currents of a long wire driven by a placed source's whole field (reciprocity: the line model's
     distributed series EMF is the field along the wire at its height, direct, reflected and surface wave, and each
-    down-lead's EMF the integral of the vertical field up it)."""
-    kind = kind if kind is not None else dipoles(src)[0][0]
+    down-lead's EMF the integral of the vertical field up it).  ``field(points (N, 2), heights (N,))`` -> (N, 3):
+    another incident field instead of the source's (the transmitting vertical's: snrgain.physics.scatter)."""
+    if field is None:
+        kind = kind if kind is not None else dipoles(src)[0][0]
+
+        def field(pts, heights):
+            return field_vector(src, pts, heights, freq_hz, ground, kind=kind)
+
     n, L = len(feeds), wire.length_m
     h = wire.wire_height_m()
     pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    e = field_vector(src, pts, h, freq_hz, ground, kind=kind)
+    e = field(pts, np.full(len(pts), h))
     emf = (e[:, 0] * u[0] + e[:, 1] * u[1]).reshape(n, -1)  # per metre along the wire, feed toward far end
     ln = wire.line(freq_hz)
     g, z0 = ln.gamma, ln.z0
@@ -219,12 +225,22 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None) -> np.ndarr
         t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
         zs = (t + 1) * h / 2
         ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
-        ez = field_vector(src, np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n), freq_hz, ground, kind=kind)
+        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))
         lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2  # the EMF up each lead
         current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
             current = current - lead[n:] * transfer[-1]  # down the far lead
     return current
+
+
+def wire_currents_in_field(wire, freq_hz: float, feeds_m, x_m, field) -> np.ndarray:
+    """Feed currents [A] (N,) of a long wire with its feed at each of ``feeds_m`` (N, 2) [m], driven by the incident
+    ``field(points (M, 2), heights (M,))`` -> (M, 3) [V/m] along it (samples ``x_m`` [m]) and up its leads: the
+    reciprocity integral placed sources use (another field: the transmitting vertical's, snrgain.physics.scatter)."""
+    b = wire.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    feeds = np.atleast_2d(np.asarray(feeds_m, dtype=float))
+    return _currents_on(wire, None, freq_hz, feeds, None, np.asarray(x_m, dtype=float), u, field=field)
 
 
 def hears(antenna, src, freq_hz: float, reference_m) -> bool:

@@ -1,18 +1,20 @@
 """What the transmitting vertical next door costs each receiving antenna, computed (snrgain.physics.scatter).
 
-The vertical is the scenario's reference when it is of a family that transmits (``resonant_tx``) and stands on
-the plan (its ``position``, or the plan's origin when the site has a lot: the rule of snrgain.decide.lot).  Its
-state while the station receives is ``[site] tx_state``: "resonant" (its base on the transmitter's 50 ohm feed)
-or "detuned" (the feed opened by a relay, or ``[site] tx_detune_reactance`` across the base).  For each
-candidate that stands on the plan and whose response has a phase, :func:`tx_cost` gives, for both states, the
-change of its RDF toward its favoured direction (its bearing, else its strongest direction, at 20 deg elevation
-or the antenna's own auto_elevation), of its front-to-back and of its forward gain.  The RDF change is the SNR
-gain's change under a uniform sky (DESIGN.md, SNR): the figure the notice warns on above
-:data:`COST_WARNING_DB`.  Long wires and phasing units are not computed here (the field of a vertical a few
-metres away is not one plane wave along a long wire): they keep the clearance rule.
+The vertical is the file's reference when it is of a family that transmits (``resonant_tx``; it stays the vertical
+next door when another antenna is made the reference: ``Scenario.transmitting``) and stands on the plan (its
+``position``, or the plan's origin when the site has a lot: the rule of snrgain.decide.lot). Its state while the
+station receives is ``[site] tx_state``: "resonant" (its base on the transmitter's 50 ohm feed) or "detuned" (the
+feed opened by a relay, or ``[site] tx_detune_reactance`` across the base). For each candidate that stands on the
+plan and whose response has a phase, :func:`tx_cost` gives, for both states, the change of its RDF toward its
+favoured direction (its bearing, else its strongest direction, at 20 deg elevation or the antenna's own
+auto_elevation), of its front-to-back and of its forward gain. The RDF change is the SNR gain's change under a
+uniform sky (DESIGN.md, SNR): the figure the notice warns on above :data:`COST_WARNING_DB`. A long wire on the plan
+(its forward port) is driven by the vertical's whole field along it and up its leads
+(physics.scatter.wire_coupling); phasing units hear the vertical through their parts; a two-wire line's reversed
+port and pattern tables are not computed and keep the clearance rule.
 
-The ranking hears the vertical too (:func:`with_structures`, a stage of the pipeline after the antennas are set
-under the sky): each computed candidate's response becomes its response with the re-radiation of the vertical in
+The ranking hears the vertical too (:func:`with_structures`, a stage of the pipeline before the antennas are set
+under the sky): each computed antenna's response becomes its response with the re-radiation of the vertical in
 the user's state and of every structure added (each taken alone, their shares summed), so its SNR gain, RDF and
 front-to-back in every output are those of the antenna where it stands.  The notices' per-state figures are
 worked from the bare antenna (:func:`bare`).
@@ -43,16 +45,29 @@ def _grid():
     return a.ravel(), e.ravel()
 
 
-def tx_vertical(sc, *, state: str | None = None) -> phys.TxVertical | None:
-    """The transmitting vertical of a scenario as a scatterer in ``state`` (default: the site's tx_state), or None
-    where the reference is no transmitting vertical or stands on no plan."""
-    ref = sc.reference
-    site = sc.site
-    if not ref.resonant_tx or (ref.params.position is None and site.lot_m is None):
+def tx_antenna(sc):
+    """The site's transmitting vertical among the scenario's antennas (the file's reference when it is a vertical:
+    ``Scenario.transmitting``, also when another antenna is made the reference), where it stands on a plan (its
+    position, or the plan's origin when the site has a lot); else None."""
+    name = getattr(sc, "transmitting", None)
+    ant = next((a for a in sc.antennas if a.name == name), None) if name is not None else None
+    if ant is None or not ant.resonant_tx:
         return None
+    if ant.params.position is None and sc.site.lot_m is None:
+        return None
+    return ant
+
+
+def tx_vertical(sc, *, state: str | None = None) -> phys.TxVertical | None:
+    """The transmitting vertical of a scenario (:func:`tx_antenna`) as a scatterer in ``state`` (default: the site's
+    tx_state), or None where the site has none on a plan."""
+    ant = tx_antenna(sc)
+    if ant is None:
+        return None
+    site = sc.site
     state = state or getattr(site, "tx_state", "resonant")
     load = phys.state_load(state, getattr(site, "tx_detune_reactance_ohm", None))
-    return phys.TxVertical(ref, tuple(float(x) for x in (ref.params.position or (0.0, 0.0))), load)
+    return phys.TxVertical(bare(ant), tuple(float(x) for x in (ant.params.position or (0.0, 0.0))), load)
 
 
 def modelled(antenna) -> bool:
@@ -60,8 +75,14 @@ def modelled(antenna) -> bool:
     plan)."""
     from snrgain.antennas.base import Antenna
 
-    if antenna.long_wire or antenna.composite:
+    if antenna.composite:
         return False
+    if antenna.long_wire:  # through its line model (physics.scatter.wire_coupling); a reversed port is not
+        return (
+            getattr(antenna, "integrates_near_sources", False)
+            and getattr(antenna.params, "port", "forward") == "forward"
+            and antenna.params.position is not None
+        )
     if type(antenna).complex_response is Antenna.complex_response:
         return False
     return antenna.params.position is not None or getattr(antenna, "positions", None) is not None
@@ -97,11 +118,62 @@ def structure_scatterers(sc) -> list[tuple[str, phys.TxVertical | None, float]]:
     return out
 
 
-def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states: dict | None = None) -> dict | None:
+def wire_terms(sc, antennas, tx: phys.TxVertical) -> list:
+    """The coupling terms (physics.scatter.coupling_terms) of the long wires among ``antennas`` (placed copies of a
+    few designs: a layout's trials), worked for all places of one design at once; None for the others."""
+    out: list = [None] * len(antennas)
+    groups: dict = {}
+    for k, a in enumerate(antennas):
+        a = bare(a)
+        if a.long_wire and modelled(a) and a.gain_key() is not None:
+            groups.setdefault(a.gain_key(), []).append(k)
+    for ks in groups.values():
+        feeds = np.array([bare(antennas[k]).params.position for k in ks], dtype=float)
+        try:
+            c = phys.wire_couplings(bare(antennas[ks[0]]), tx, sc.freq_hz, feeds)
+        except ValueError:  # a vertical too tall for the model: tx_cost says None
+            continue
+        for k, ck, f in zip(ks, c, feeds):
+            out[k] = (complex(ck), f)
+    return out
+
+
+_ALONE: dict[tuple, tuple] = {}
+
+
+def _alone(antenna, freq_hz: float):
+    """(azimuths, elevations, favoured bearing, its response there, its metrics alone) on tx_cost's grid; kept per
+    design (``gain_key``: a placed antenna's far field does not move with it)."""
+    key = antenna.gain_key()
+    hit = None if key is None else _ALONE.get((key, float(freq_hz)))
+    if hit is not None:
+        return hit
+    az, el = _grid()
+    fwd_el = float(getattr(antenna.params, "auto_elevation", FORWARD_ELEVATION_RAD))
+    bearing = getattr(antenna.params, "bearing", None)
+    if bearing is None:
+        ring = np.radians(np.arange(0.0, 360.0, 1.0))
+        ev, eh = antenna.complex_response(freq_hz, ring, np.full(ring.shape, fwd_el))
+        bearing = float(ring[np.argmax(np.abs(ev) ** 2 + np.abs(eh) ** 2)])
+    az = np.concatenate([az, [bearing, (bearing + np.pi) % (2 * np.pi)]])
+    el = np.concatenate([el, [fwd_el, fwd_el]])
+    response = antenna.complex_response(freq_hz, az, el)
+    out = (az, el, bearing, response, _metrics(*response, az, el, bearing, fwd_el))
+    if key is not None:
+        if len(_ALONE) >= 64:
+            _ALONE.pop(next(iter(_ALONE)))
+        _ALONE[(key, float(freq_hz))] = out
+    return out
+
+
+def tx_cost(
+    sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states: dict | None = None, terms=None
+) -> dict | None:
     """The vertical's effect on ``antenna`` (standing at ``at_m``, default its position): {"alone": metrics, then
     per state (default "resonant" and "detuned"; ``states`` name -> base load for another scatterer) its RDF change,
     front-to-back and forward-gain change, "state": the state run, "cost_db": the RDF lost in that state,
-    "distance_m"}; None where not computed (:func:`modelled`, no vertical, a vertical too tall for the model)."""
+    "distance_m"}; None where not computed (:func:`modelled`, no vertical, a vertical too tall for the model).
+    ``terms``: its coupling terms when already worked (:func:`wire_terms`)."""
     tx = tx or tx_vertical(sc)
     antenna = bare(antenna)
     if tx is None or not modelled(antenna):
@@ -112,17 +184,8 @@ def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states
     except ValueError:
         return None
     at = np.asarray(at_m if at_m is not None else (antenna.params.position or (0.0, 0.0)), dtype=float)
-    az, el = _grid()
-    fwd_el = float(getattr(antenna.params, "auto_elevation", FORWARD_ELEVATION_RAD))
-    bearing = getattr(antenna.params, "bearing", None)
-    if bearing is None:
-        ring = np.radians(np.arange(0.0, 360.0, 1.0))
-        ev, eh = antenna.complex_response(f, ring, np.full(ring.shape, fwd_el))
-        bearing = float(ring[np.argmax(np.abs(ev) ** 2 + np.abs(eh) ** 2)])
-    az = np.concatenate([az, [bearing, (bearing + np.pi) % (2 * np.pi)]])
-    el = np.concatenate([el, [fwd_el, fwd_el]])
-    alone = _metrics(*antenna.complex_response(f, az, el), az, el, bearing, fwd_el)
-    terms = phys.coupling_terms(antenna, tx, f, at)
+    az, el, bearing, response, alone = _alone(antenna, f)
+    terms = phys.coupling_terms(antenna, tx, f, at) if terms is None else terms
     if states is None:
         state = "resonant" if tx.load_ohm == phys.RESONANT_LOAD_OHM else "detuned"
         states = {"resonant": phys.RESONANT_LOAD_OHM, "detuned": tx.load_ohm if state == "detuned" else None}
@@ -130,7 +193,8 @@ def tx_cost(sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states
         state = next(iter(states))
     out = {"alone": alone, "state": state, "bearing_rad": bearing}
     for name, load in states.items():
-        m = _metrics(*phys.with_vertical(antenna, tx.with_load(load), f, az, el, at_m=at, terms=terms), az, el, 0, 0)
+        ev = response[0] + phys.scattered(antenna, tx.with_load(load), f, az, el, at_m=at, terms=terms)
+        m = _metrics(ev, response[1], az, el, 0, 0)
         out[name] = {
             "rdf_change_db": float(m["rdf_db"] - alone["rdf_db"]),
             "front_to_back_db": float(m["front_to_back_db"]),
@@ -152,8 +216,9 @@ def tx_notices(sc) -> list[Notice]:
     and ``structure-not-computed`` (structure, height_wavelengths) for one too tall for the model."""
     out = []
     tx = tx_vertical(sc)
+    tx_name = getattr(sc, "transmitting", None)
     for ant in sc.candidates if tx is not None else ():
-        if ant is sc.reference:
+        if ant.name == tx_name:
             continue
         c = tx_cost(sc, ant, tx=tx)
         if c is None or c["cost_db"] <= COST_WARNING_DB:
@@ -293,16 +358,19 @@ def site_scatterers(sc) -> list[phys.TxVertical]:
 
 
 def with_structures(sc):
-    """The scenario with each candidate whose coupling is computed (:func:`modelled`) standing beside the site's
-    scatterers (:func:`site_scatterers`): new antennas, phasing units remade over their moved parts; the reference
-    as it is (the transmitting vertical is the scatterer itself).  The scenario itself when nothing changes."""
+    """The scenario with each antenna whose coupling is computed (:func:`modelled`) standing beside the site's
+    scatterers (:func:`site_scatterers`): new antennas, phasing units remade over their moved parts; the
+    transmitting vertical itself as it is (it is the scatterer; the reference, unless another antenna is made the
+    reference, when that one stands beside the vertical like any other).  The scenario itself when nothing
+    changes."""
     from snrgain.model.steering import repoint, with_antennas
 
     scat = site_scatterers(sc)
     if not scat:
         return sc
+    tx_name = getattr(sc, "transmitting", None)
     old = list(sc.antennas)
-    new = [a if k == 0 or not modelled(bare(a)) else beside(a, scat) for k, a in enumerate(old)]
+    new = [a if a.name == tx_name or not modelled(bare(a)) else beside(a, scat) for a in old]
     if all(a is b for a, b in zip(new, old)):
         return sc
     return with_antennas(sc, repoint(new, old))

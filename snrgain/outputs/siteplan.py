@@ -77,10 +77,10 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
             if pts:
                 a["parts"] = [_part("unit", [tuple(np.mean(pts, axis=0))])]
                 a["member_feeds"] = pts
-    ref = sc.reference
-    tx = None
-    if ref.resonant_tx and (ref.params.position is not None or site.lot_m is not None):
-        tx = tuple(float(v) for v in (ref.params.position or (0.0, 0.0)))
+    from snrgain.model.scatter import tx_antenna
+
+    ref = tx_antenna(sc)
+    tx = None if ref is None else tuple(float(v) for v in (ref.params.position or (0.0, 0.0)))
     lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
     off_lot = [] if lot is None else _off_lot(antennas, lot)
     wires = [(a["name"], LineString(p["coords"])) for a in antennas for p in a["parts"] if p["kind"] == "wire"]
@@ -101,7 +101,7 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         "lot": None if site.lot_m is None else [tuple(map(float, p)) for p in site.lot_m],
         "keep_out": [(n, [tuple(map(float, p)) for p in pts]) for n, pts in site.keep_out],
         "tx": tx,
-        "tx_name": ref.name,
+        "tx_name": ref.name if ref is not None else sc.reference.name,
         "clearance_m": tx_clearance_m(site, sc.freq_hz) if tx is not None else None,
         "clearance_given": getattr(site, "tx_clearance_m", None) is not None,
         "sources": [(s.name, tuple(map(float, s.position_m))) for s in sc.noise.local if s.position_m is not None],

@@ -276,4 +276,10 @@ def assemble(
         placeable=built.placeable,
         strong_signals=resolved.stations,
         stage_limits=tuple(stage_limits(c if c is not None else model.chain, model.receiver) for c in built.chains),
+        transmitting=_transmitting(file_reference if file_reference is not None else built.antennas[0]),
     )
+
+
+def _transmitting(antenna) -> str | None:
+    """The name of the site's transmitting vertical: the file's reference when it is of a family that transmits."""
+    return antenna.name if antenna is not None and antenna.resonant_tx else None

@@ -122,6 +122,9 @@ class Scenario:
     """Nearby transmitters ([[strong_signal]]), as distance and bearing from the site."""
     stage_limits: tuple[strongmod.StageLimits, ...] = ()
     """``stage_limits[i]``: the large-signal limits of the first active stage of ``chains[i]``."""
+    transmitting: str | None = None
+    """The name of the site's transmitting vertical: the file's reference when it is a vertical.  It stays the
+    vertical next door (snrgain.model.scatter) when another antenna is made the reference (``--reference``)."""
 
     @property
     def antennas(self) -> list[Antenna]:

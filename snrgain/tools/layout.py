@@ -122,11 +122,14 @@ class Problem:
         for pl, ant in zip(self.places, self.base):
             b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
             self.target.append(nearest_target(sc, b))
+        from snrgain.model.scatter import tx_antenna
+
         self.tx = None
-        if sc.reference.resonant_tx:
+        tx_ant = tx_antenna(sc)
+        if tx_ant is not None:
             from shapely.geometry import Point
 
-            self.tx = Point(*self.ref_m)
+            self.tx = Point(*(tx_ant.params.position or (0.0, 0.0)))
         self.clearance = tx_clearance_m(sc.site, sc.freq_hz)
         self.clearance_given = getattr(sc.site, "tx_clearance_m", None) is not None
         from snrgain.model.scatter import modelled, structure_scatterers, tx_vertical
@@ -193,15 +196,19 @@ class Problem:
         """What the transmitting vertical, in the site's tx_state, and the site's structures take from each placed
         antenna's RDF [dB] (the SNR gain's change under a uniform sky: snrgain.model.scatter; the scatterers one by
         one, summed), 0 where it is not computed (long wires, which keep the clearance rule instead)."""
-        from snrgain.model.scatter import tx_cost
+        from snrgain.model.scatter import tx_cost, wire_terms
 
         total = np.zeros(len(ants))
         if self.scatterer is not None:
-            costs = [tx_cost(self.sc, a, tx=self.scatterer) for a in ants]
+            terms = wire_terms(self.sc, ants, self.scatterer)  # a long wire's places at once
+            costs = [tx_cost(self.sc, a, tx=self.scatterer, terms=t) for a, t in zip(ants, terms)]
             total += [0.0 if c is None else c["cost_db"] for c in costs]
         for _, st, _ in self.structures:
             if st is not None:
-                costs = [tx_cost(self.sc, a, tx=st, states={"as built": st.load_ohm}) for a in ants]
+                terms = wire_terms(self.sc, ants, st)
+                costs = [
+                    tx_cost(self.sc, a, tx=st, states={"as built": st.load_ohm}, terms=t) for a, t in zip(ants, terms)
+                ]
                 total += [0.0 if c is None else c["cost_db"] for c in costs]
         return total
 
