@@ -3,6 +3,11 @@
 
 It reads the decided results (each antenna's noise at the receiver and its chain's gain) and returns new results
 with ``strong_signals`` (one row per antenna and station) and the notices added; nothing else changes.
+
+Each antenna is taken as built for the band listened to (:func:`as_built`): a termination or transformer ratio
+left at "auto" is the one chosen at the listening frequency, not one chosen again at the station's frequency
+(at 0.55 MHz a 150 m Beverage's "auto" would otherwise become a 30 ohm resistor and a 4.8:1 transformer, an
+antenna nobody built).
 """
 
 from __future__ import annotations
@@ -11,10 +16,31 @@ from dataclasses import replace
 
 import numpy as np
 
+from snrgain.antennas.base import variant
 from snrgain.model.notices import Notice
 from snrgain.physics import strong as st
 from snrgain.physics.chain import friis
 from snrgain.physics.ground import ETA0_OHM
+
+TURNS_RATIO_RANGE = (0.1, 20.0)
+"""The turns ratios a transformer may be given (the long-wire and loop families' own bounds)."""
+
+
+def as_built(antenna, listen_hz: float):
+    """``antenna`` with each setting left at "auto" (termination, turns ratio) fixed at the value it takes at the
+    listening frequency [Hz]: the antenna as built, whose response at another frequency the strong signals need.
+    Families without such settings (and arrays, whose phasing is set under the sky) are returned unchanged."""
+    p = antenna.params
+    fixed = {}
+    if getattr(p, "termination", None) == "auto" and hasattr(antenna, "termination_ohm"):
+        r = antenna.termination_ohm(listen_hz)
+        if r is not None:
+            fixed["termination"] = float(r)
+    if getattr(p, "turns_ratio", None) == "auto" and hasattr(antenna, "turns_ratio"):
+        fixed["turns_ratio"] = float(np.clip(antenna.turns_ratio(listen_hz), *TURNS_RATIO_RANGE))
+    if not fixed or antenna.family == "array":
+        return antenna
+    return variant(antenna, **fixed)
 
 
 def _gain_before_db(chain) -> tuple[float, int]:
@@ -31,13 +57,14 @@ def with_strong_signals(sc, results):
     listen_hz = sc.freq_hz
     by_name = {a.name: a for a in results.antennas}
     for antenna, chain, limits in zip(sc.antennas, sc.chains, sc.stage_limits):
+        built = as_built(antenna, listen_hz)
         before_db, _ = _gain_before_db(chain)
         at_stage: dict[str, tuple[float, float]] = {}
         for station in sc.strong_signals:
             field = st.ground_wave_field_v_per_m(station, sc.site.ground)
             try:
                 ground = getattr(antenna, "ground", sc.site.ground)  # the soil under the antenna sets R_v
-                area = st.ground_wave_aperture_m2(antenna, station.freq_hz, station.bearing_rad, ground)
+                area = st.ground_wave_aperture_m2(built, station.freq_hz, station.bearing_rad, ground)
             except ValueError as exc:  # a family that cannot be computed at that frequency says why
                 rows.append({"antenna": antenna.name, "station": station.name, "not_computed": str(exc)})
                 continue
@@ -50,7 +77,7 @@ def with_strong_signals(sc, results):
                     "station": station.name,
                     "frequency_hz": station.freq_hz,
                     "field_v_per_m": field,
-                    "terminal_dbm": terminal_dbm,  # available power: into a conjugate-matched load
+                    "terminal_dbm": terminal_dbm,  # into the receiver load, or a matched one (physics.strong)
                     "terminal_v_rms_50_ohm": float(np.sqrt(10 ** (terminal_dbm / 10) * 1e-3 * 50.0)),
                     "stage": limits.name,
                     "stage_input_dbm": stage_dbm,
