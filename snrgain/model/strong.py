@@ -29,7 +29,7 @@ TURNS_RATIO_RANGE = (0.1, 20.0)
 def as_built(antenna, listen_hz: float):
     """``antenna`` with each setting left at "auto" (termination, turns ratio) fixed at the value it takes at the
     listening frequency [Hz]: the antenna as built, whose response at another frequency the strong signals need.
-    Families without such settings (and arrays, whose phasing is set under the sky) are returned unchanged."""
+    Families without such settings, or that cannot be varied (arrays), are returned unchanged."""
     p = antenna.params
     fixed = {}
     if getattr(p, "termination", None) == "auto" and hasattr(antenna, "termination_ohm"):
@@ -38,9 +38,12 @@ def as_built(antenna, listen_hz: float):
             fixed["termination"] = float(r)
     if getattr(p, "turns_ratio", None) == "auto" and hasattr(antenna, "turns_ratio"):
         fixed["turns_ratio"] = float(np.clip(antenna.turns_ratio(listen_hz), *TURNS_RATIO_RANGE))
-    if not fixed or antenna.family == "array":
+    if not fixed:
         return antenna
-    return variant(antenna, **fixed)
+    try:
+        return variant(antenna, **fixed)
+    except ValueError:  # a family that keeps its parts as written (variant says which): as it is
+        return antenna
 
 
 def _gain_before_db(chain) -> tuple[float, int]:
