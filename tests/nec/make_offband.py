@@ -30,6 +30,11 @@ Antennas, all over moist loam (eps_r 13, 5 mS/m), AWG 14 wire:
 Frequencies 0.55, 0.9, 1.3 and 1.7 MHz; elevations 0.5 and 2 deg (the ratio must have settled); the favoured
 direction and the opposite one for the directional antennas.
 
+One more case stands for the strong-signal test site (tests/data/sites/quarry-lane-mw.toml): its 250 m Beverage,
+2.5 m up, with a 500 ohm termination and a 2.5:1 transformer into 75 ohm (6.25 x 75 = 469 ohm), 20 ohm rods, at the
+medium-wave station's 1.008 MHz (0.84 wavelength), the wave arriving 15 deg off the wire's bearing (the station at
+60 deg, the wire at 45 deg).
+
 Run: python tests/nec/make_offband.py  (a minute; needs nec2c on the PATH)
 """
 
@@ -77,6 +82,18 @@ FLAG = {
     "forward_phi_deg": 180.0,
 }
 VERTICAL = {"height_m": 6.0, "segments": 20, "load_ohm": 50.0}
+QUARRY = {
+    "length_m": 250.0,
+    "height_m": 2.5,
+    "segments": 50,
+    "termination_ohm": 500.0,
+    "turns_ratio": 2.5,
+    "coax_ohm": 75.0,
+    "feed_rod_ohm": 20.0,
+    "far_rod_ohm": 20.0,
+    "freq_mhz": 1.008,
+    "off_axis_deg": 15.0,
+}
 
 
 def fresnel_v(freq_mhz: float, elevation_deg: float) -> complex:
@@ -101,10 +118,9 @@ def _plane_wave(elevation_deg: float, phi_deg: float) -> str:
     return f"EX 1 1 1 0 {90.0 - elevation_deg:.4f} {phi_deg:.4f} 0 0 0 0"
 
 
-def beverage_deck(freq_mhz, r_j, excitation) -> str:
-    b = BEVERAGE
+def beverage_deck(freq_mhz, r_j, excitation, b=BEVERAGE) -> str:
     h, length, ns = b["height_m"], b["length_m"], b["segments"]
-    feed_load = b["turns_ratio"] ** 2 * COAX_OHM + b["feed_rod_ohm"] - r_j
+    feed_load = b["turns_ratio"] ** 2 * b.get("coax_ohm", COAX_OHM) + b["feed_rod_ohm"] - r_j
     far_load = b["termination_ohm"] + b["far_rod_ohm"] - r_j
     return (
         "\n".join(
@@ -184,6 +200,7 @@ def main():
         "beverage": BEVERAGE,
         "flag": FLAG,
         "vertical": VERTICAL,
+        "quarry_note": "the strong-signal test site's Beverage at its station's frequency (module docstring)",
         "note": "aperture_m2 = power into the receiver load / (|E_surface|^2 / (2 eta0)); E_surface = cos e |1 + R_v|",
         "cases": [],
     }
@@ -254,6 +271,29 @@ def main():
                     }
                 )
             print(f"{f} MHz done", flush=True)
+        q = QUARRY
+        stub = stub_deck(
+            freq_mhz=q["freq_mhz"],
+            height_m=q["height_m"],
+            segments=1,
+            radius_m=RADIUS_M,
+            permittivity=GROUND["permittivity"],
+            conductivity_s_per_m=GROUND["conductivity_s_per_m"],
+        )
+        r_j = junction_ohm(run_nec2c(stub, work, "stub"))
+        el = ELEVATIONS_DEG[0]
+        deck = beverage_deck(q["freq_mhz"], r_j, _plane_wave(el, -q["off_axis_deg"] % 360), q)
+        i = base_currents(run_nec2c(deck, work, "quarry"), 1)[0]
+        p = 0.5 * abs(i) ** 2 * q["turns_ratio"] ** 2 * q["coax_ohm"]
+        es = surface_field(q["freq_mhz"], el)
+        (HERE / "cases" / "offband-quarry-beverage.nec").write_text(deck)
+        ref["quarry"] = {
+            **q,
+            "elevation_deg": el,
+            "junction_ohm": round(r_j, 3),
+            "surface_field": es,
+            "aperture_m2": p / (es**2 / (2 * ETA0)),
+        }
     (HERE / "offband.json").write_text(json.dumps(ref, indent=1) + "\n")
 
 
