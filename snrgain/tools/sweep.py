@@ -221,12 +221,12 @@ class Study:
     def in_band(self, band: str) -> Study:
         """This study in one of its bands (the same object for the same band, so the shared stages are made once)."""
         key = (id(self), band)
-        out = _BAND_STUDIES.get(key)
-        if out is None:
+        hit = _BAND_STUDIES.get(key)
+        if hit is None or hit[0] is not self:  # the entry holds its study, so its id is not another's
             if len(_BAND_STUDIES) > 64:
                 _BAND_STUDIES.clear()
-            out = _BAND_STUDIES[key] = replace(self, band=band, bands=())
-        return out
+            hit = _BAND_STUDIES[key] = (self, replace(self, band=band, bands=()))
+        return hit[1]
 
     @property
     def fast(self) -> bool:
@@ -261,7 +261,7 @@ class Study:
         return sc
 
 
-_BAND_STUDIES: dict[tuple[int, str], Study] = {}
+_BAND_STUDIES: dict[tuple[int, str], tuple[Study, Study]] = {}
 
 
 def validate(study: Study) -> None:
@@ -332,7 +332,7 @@ class _Shared:
         return pipeline.antenna_results(sub, p, self.skies)[1]
 
 
-_SHARED: dict[int, _Shared] = {}
+_SHARED: dict[int, tuple[Study, _Shared]] = {}
 
 
 MAX_SHARED = 16
@@ -341,12 +341,12 @@ MAX_SHARED = 16
 
 def _shared(study: Study) -> _Shared:
     key = id(study)
-    shared = _SHARED.get(key)
-    if shared is None:
+    hit = _SHARED.get(key)
+    if hit is None or hit[0] is not study:  # the entry holds its study, so its id is not another's
         if len(_SHARED) >= MAX_SHARED:
             _SHARED.clear()
-        shared = _SHARED[key] = _Shared(study)
-    return shared
+        hit = _SHARED[key] = (study, _Shared(study))
+    return hit[1]
 
 
 def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
