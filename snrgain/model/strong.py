@@ -19,7 +19,7 @@ import numpy as np
 from snrgain.antennas.base import variant
 from snrgain.model.notices import Notice
 from snrgain.physics import strong as st
-from snrgain.physics.chain import friis
+from snrgain.physics.chain import cable_by_name, friis, passive
 from snrgain.physics.ground import ETA0_OHM
 
 TURNS_RATIO_RANGE = (0.1, 20.0)
@@ -46,10 +46,21 @@ def as_built(antenna, listen_hz: float):
         return antenna
 
 
-def _gain_before_db(chain) -> tuple[float, int]:
-    """(gain [dB] from the terminals to the first active stage's input, that stage's index)."""
+def _gain_before_db(chain, listen_hz: float, freq_hz: float | None = None) -> tuple[float, int]:
+    """(gain [dB] from the terminals to the first active stage's input at ``freq_hz`` (default the listening
+    frequency), that stage's index).  A feed line given by its cable and length has its loss at ``freq_hz`` (the
+    cable's loss per length scales it; physics.chain.Cable); one given by its total loss keeps it."""
     idx = chain.preamp_index if chain.preamp_index is not None else len(chain.stages) - 1
-    return 10.0 * np.log10(friis(list(chain.stages[:idx]))[1]), idx
+    stages = list(chain.stages[:idx])
+    if chain.cable is not None and freq_hz is not None and freq_hz != listen_hz:
+        cable = cable_by_name(chain.cable)
+        ratio = cable.loss_db_per_100ft(freq_hz) / cable.loss_db_per_100ft(listen_hz)
+        stages = [passive(x.name, -10.0 * np.log10(x.gain) * ratio) if x.name == FEED_LINE else x for x in stages]
+    return 10.0 * np.log10(friis(stages)[1]), idx
+
+
+FEED_LINE = "feed line"
+"""The name physics.chain.cascade gives the feed line's stage."""
 
 
 def with_strong_signals(sc, results):
@@ -61,7 +72,7 @@ def with_strong_signals(sc, results):
     by_name = {a.name: a for a in results.antennas}
     for antenna, chain, limits in zip(sc.antennas, sc.chains, sc.stage_limits):
         built = as_built(antenna, listen_hz)
-        before_db, _ = _gain_before_db(chain)
+        before_db, _ = _gain_before_db(chain, listen_hz)
         at_stage: dict[str, tuple[float, float]] = {}
         for station in sc.strong_signals:
             field = st.ground_wave_field_v_per_m(station, sc.site.ground)
@@ -72,7 +83,7 @@ def with_strong_signals(sc, results):
                 rows.append({"antenna": antenna.name, "station": station.name, "not_computed": str(exc)})
                 continue
             terminal_dbm = st.dbm(field**2 / ETA0_OHM * area)
-            stage_dbm = float(terminal_dbm + before_db)
+            stage_dbm = float(terminal_dbm + _gain_before_db(chain, listen_hz, station.freq_hz)[0])
             at_stage[station.name] = (station.freq_hz, stage_dbm)
             rows.append(
                 {

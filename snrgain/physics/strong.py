@@ -34,7 +34,8 @@ and a 6 m vertical over moist loam at 0.55-1.7 MHz under a plane wave at 0.5 and
 over the surface field's |E|^2 / (2 eta0) (the vertical through its open-circuit voltage).
 
 **The first active stage.**  Between the terminals and the first amplifier: the transformer's loss, and the feed
-line's matched loss at the station's frequency when the amplifier sits at the receiver end (or there is none
+line's matched loss at the station's frequency (a cable given by type and length; a total loss as given) when the
+amplifier sits at the receiver end (or there is none
 and the receiver is the first stage).  Against that stage's limits (input-referred): the 1 dB compression point
 (the total power of all strong signals; a warning when it comes within :data:`COMPRESSION_MARGIN_DB`), and the
 second- and third-order intercepts for products of two stations that land within
