@@ -26,3 +26,9 @@ def test_a_cable_loses_at_the_stations_frequency_a_given_loss_as_given():
     r = snrgain.evaluate(_with_line('{ loss = "3 dB" }'))
     for row in r.strong_signals:
         assert row["stage_input_dbm"] - row["terminal_dbm"] == pytest.approx(-3.0, abs=1e-9)
+
+
+def test_each_row_says_whether_its_level_is_delivered_or_available():
+    r = snrgain.evaluate(SITE)
+    kinds = {row["antenna"]: row["terminal_power"] for row in r.strong_signals}
+    assert kinds == {"vertical": "available", "Beverage north-east": "delivered", "short vertical": "available"}

@@ -91,7 +91,10 @@ def with_strong_signals(sc, results):
                     "station": station.name,
                     "frequency_hz": station.freq_hz,
                     "field_v_per_m": field,
-                    "terminal_dbm": terminal_dbm,  # into the receiver load, or a matched one (physics.strong)
+                    "terminal_dbm": terminal_dbm,
+                    # what terminal_dbm is (physics.strong): delivered through the modelled transformer into the
+                    # receiver, or available to a matched load (an upper bound) for families without a feed load
+                    "terminal_power": "delivered" if hasattr(built, "receiver_load_ohm") else "available",
                     "terminal_v_rms_50_ohm": float(np.sqrt(10 ** (terminal_dbm / 10) * 1e-3 * 50.0)),
                     "stage": limits.name,
                     "stage_input_dbm": stage_dbm,
