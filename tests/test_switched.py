@@ -204,7 +204,7 @@ def problems_of(data) -> dict[str, str]:
         (
             {"directions": [45, 225], "place": {"bearing": [0, 90]}},
             'candidate 1 ("four-square").place',
-            "does not move a switched antenna",
+            "takes no bearing or length range",
         ),
     ],
 )

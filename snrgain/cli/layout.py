@@ -103,7 +103,7 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
             t.add_row(
                 d.name,
                 f"{length_text(d.east_m, unit, 0)}, {length_text(d.north_m, unit, 0)}",
-                "-" if d.bearing_rad is None else f"{np.degrees(d.bearing_rad):.0f} deg",
+                "switched" if d.states else "-" if d.bearing_rad is None else f"{np.degrees(d.bearing_rad):.0f} deg",
                 length,
                 tgt,
                 f"{g:+.1f} dB",

@@ -67,6 +67,7 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
 
     Only a candidate's own keys varying: the sky and the reference are computed once, so thousands of designs
     take seconds.  Varying the site, band, time or reference, or asking --spread, runs each design in full.
+    A scenario of several bands runs each design in every band (a 'band' column) unless --band picks one.
     """
     from snrgain.cli.options import progress
     from snrgain.scenario import read_source
@@ -79,6 +80,9 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
     if len(set(columns)) != len(columns):
         raise ValueError("--vary: the same key is varied twice")
     data, label, base_dir = read_source(Path(scenario))
+    from snrgain.cli.options import band_names
+
+    bands = tuple(band_names(Path(scenario)) or ()) if band is None else ()
     study = sw.Study(
         data,
         label,
@@ -89,6 +93,7 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
         spread=spread,
         reference=reference,
         band=band,
+        bands=bands,
     )
     total = sw.design_count(parsed)
     if total > sw.MAX_DESIGNS:
@@ -99,7 +104,8 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
             "hundred designs a second, a section's a few a second); narrow the ranges or coarsen the steps, or pass "
             "--allow-long to run them all"
         )
-    click.echo(f"sweep: {total} design{'s' if total != 1 else ''}", err=True)
+    in_bands = f" in each of {len(bands)} bands ({', '.join(bands)})" if bands else ""
+    click.echo(f"sweep: {total} design{'s' if total != 1 else ''}{in_bands}", err=True)
     with progress(total, "sweep: designs") as bar:
         n = sw.run(study, output, overwrite=overwrite, dask=dask_address, progress=bar.update)
     click.echo(f"wrote {output}: {n} designs", err=True)

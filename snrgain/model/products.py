@@ -56,7 +56,8 @@ def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=No
         by = known.temps.by_component[:, rows].copy()  # the sky rows are the gains' alone
         for name, share in shares.items():
             r = skies.names.index(name)
-            by[r] = known.temps.by_component[r, 0][None] * share[:, None, None]
+            # the reference's temperature already holds its own share (not 1 for a level measured elsewhere)
+            by[r] = known.temps.by_component[r, 0][None] * (share / share[0])[:, None, None]
         temps = snr.Temperatures(by, by.sum(axis=0))
     else:
         temps = snr.sky_temperatures(gains, skies, pickup=shares, strength_db=strength_db)

@@ -3,6 +3,11 @@
 
 It reads the decided results (each antenna's noise at the receiver and its chain's gain) and returns new results
 with ``strong_signals`` (one row per antenna and station) and the notices added; nothing else changes.
+
+Each antenna is taken as built for the band listened to (:func:`as_built`): a termination or transformer ratio
+left at "auto" is the one chosen at the listening frequency, not one chosen again at the station's frequency
+(at 0.55 MHz a 150 m Beverage's "auto" would otherwise become a 30 ohm resistor and a 4.8:1 transformer, an
+antenna nobody built).
 """
 
 from __future__ import annotations
@@ -11,16 +16,51 @@ from dataclasses import replace
 
 import numpy as np
 
+from snrgain.antennas.base import variant
 from snrgain.model.notices import Notice
 from snrgain.physics import strong as st
-from snrgain.physics.chain import friis
+from snrgain.physics.chain import cable_by_name, friis, passive
 from snrgain.physics.ground import ETA0_OHM
 
+TURNS_RATIO_RANGE = (0.1, 20.0)
+"""The turns ratios a transformer may be given (the long-wire and loop families' own bounds)."""
 
-def _gain_before_db(chain) -> tuple[float, int]:
-    """(gain [dB] from the terminals to the first active stage's input, that stage's index)."""
+
+def as_built(antenna, listen_hz: float):
+    """``antenna`` with each setting left at "auto" (termination, turns ratio) fixed at the value it takes at the
+    listening frequency [Hz]: the antenna as built, whose response at another frequency the strong signals need.
+    Families without such settings, or that cannot be varied (arrays), are returned unchanged."""
+    p = antenna.params
+    fixed = {}
+    if getattr(p, "termination", None) == "auto" and hasattr(antenna, "termination_ohm"):
+        r = antenna.termination_ohm(listen_hz)
+        if r is not None:
+            fixed["termination"] = float(r)
+    if getattr(p, "turns_ratio", None) == "auto" and hasattr(antenna, "turns_ratio"):
+        fixed["turns_ratio"] = float(np.clip(antenna.turns_ratio(listen_hz), *TURNS_RATIO_RANGE))
+    if not fixed:
+        return antenna
+    try:
+        return variant(antenna, **fixed)
+    except ValueError:  # a family that keeps its parts as written (variant says which): as it is
+        return antenna
+
+
+def _gain_before_db(chain, listen_hz: float, freq_hz: float | None = None) -> tuple[float, int]:
+    """(gain [dB] from the terminals to the first active stage's input at ``freq_hz`` (default the listening
+    frequency), that stage's index).  A feed line given by its cable and length has its loss at ``freq_hz`` (the
+    cable's loss per length scales it; physics.chain.Cable); one given by its total loss keeps it."""
     idx = chain.preamp_index if chain.preamp_index is not None else len(chain.stages) - 1
-    return 10.0 * np.log10(friis(list(chain.stages[:idx]))[1]), idx
+    stages = list(chain.stages[:idx])
+    if chain.cable is not None and freq_hz is not None and freq_hz != listen_hz:
+        cable = cable_by_name(chain.cable)
+        ratio = cable.loss_db_per_100ft(freq_hz) / cable.loss_db_per_100ft(listen_hz)
+        stages = [passive(x.name, -10.0 * np.log10(x.gain) * ratio) if x.name == FEED_LINE else x for x in stages]
+    return 10.0 * np.log10(friis(stages)[1]), idx
+
+
+FEED_LINE = "feed line"
+"""The name physics.chain.cascade gives the feed line's stage."""
 
 
 def with_strong_signals(sc, results):
@@ -31,18 +71,19 @@ def with_strong_signals(sc, results):
     listen_hz = sc.freq_hz
     by_name = {a.name: a for a in results.antennas}
     for antenna, chain, limits in zip(sc.antennas, sc.chains, sc.stage_limits):
-        before_db, _ = _gain_before_db(chain)
+        built = as_built(antenna, listen_hz)
+        before_db, _ = _gain_before_db(chain, listen_hz)
         at_stage: dict[str, tuple[float, float]] = {}
         for station in sc.strong_signals:
             field = st.ground_wave_field_v_per_m(station, sc.site.ground)
             try:
                 ground = getattr(antenna, "ground", sc.site.ground)  # the soil under the antenna sets R_v
-                area = st.ground_wave_aperture_m2(antenna, station.freq_hz, station.bearing_rad, ground)
+                area = st.ground_wave_aperture_m2(built, station.freq_hz, station.bearing_rad, ground)
             except ValueError as exc:  # a family that cannot be computed at that frequency says why
                 rows.append({"antenna": antenna.name, "station": station.name, "not_computed": str(exc)})
                 continue
             terminal_dbm = st.dbm(field**2 / ETA0_OHM * area)
-            stage_dbm = float(terminal_dbm + before_db)
+            stage_dbm = float(terminal_dbm + _gain_before_db(chain, listen_hz, station.freq_hz)[0])
             at_stage[station.name] = (station.freq_hz, stage_dbm)
             rows.append(
                 {
@@ -50,7 +91,10 @@ def with_strong_signals(sc, results):
                     "station": station.name,
                     "frequency_hz": station.freq_hz,
                     "field_v_per_m": field,
-                    "terminal_dbm": terminal_dbm,  # available power: into a conjugate-matched load
+                    "terminal_dbm": terminal_dbm,
+                    # what terminal_dbm is (physics.strong): delivered through the modelled transformer into the
+                    # receiver, or available to a matched load (an upper bound) for families without a feed load
+                    "terminal_power": "delivered" if hasattr(built, "receiver_load_ohm") else "available",
                     "terminal_v_rms_50_ohm": float(np.sqrt(10 ** (terminal_dbm / 10) * 1e-3 * 50.0)),
                     "stage": limits.name,
                     "stage_input_dbm": stage_dbm,

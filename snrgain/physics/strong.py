@@ -20,13 +20,22 @@ E at the surface is
 with G the antenna's modelled gain over the same ground (transformer and ground losses included).  For a short
 monopole over perfect ground (G = 3 cos^2 e, R_v = 1) this is |E|^2 lambda^2 / (640 pi^2), the textbook
 available power of a short monopole, (E h_e)^2 / (4 R_rad) with R_rad = 160 pi^2 (h_e / lambda)^2.  The ratio
-settles to 0.01 dB below e = 1 deg for every family (tested); :data:`GRAZING_RAD` is used.  It is the power
-available to a conjugate-matched load: an upper bound, since a receiving antenna far off its band is badly matched
-to the chain and delivers less (by the mismatch, which this model does not compute for every family), so a warning
+settles to 0.01 dB below e = 1 deg for every family (tested); :data:`GRAZING_RAD` is used.
+
+What G stands for sets what P is.  Families that model their receiver load (long wires, terminated loops: the
+realized gain into n^2 Z_coax through the transformer, with the antenna as built for its band,
+:func:`snrgain.model.strong.as_built`) give the power delivered to the receiver, mismatch included; the others
+(verticals, small loops, pattern tables) give the power available to a conjugate-matched load, an upper bound: a
+short vertical's few thousand ohm of reactance would hand a 50 ohm input far less (tens of dB), so there a warning
 errs on the side of the filter.
 
+Checked against NEC-2 (tests/nec/offband.json, tests/test_strong_offband.py): a 150 m Beverage 2.5 m up, a flag
+and a 6 m vertical over moist loam at 0.55-1.7 MHz under a plane wave at 0.5 and 2 deg, the power into the load
+over the surface field's |E|^2 / (2 eta0) (the vertical through its open-circuit voltage).
+
 **The first active stage.**  Between the terminals and the first amplifier: the transformer's loss, and the feed
-line's matched loss at the station's frequency when the amplifier sits at the receiver end (or there is none
+line's matched loss at the station's frequency (a cable given by type and length; a total loss as given) when the
+amplifier sits at the receiver end (or there is none
 and the receiver is the first stage).  Against that stage's limits (input-referred): the 1 dB compression point
 (the total power of all strong signals; a warning when it comes within :data:`COMPRESSION_MARGIN_DB`), and the
 second- and third-order intercepts for products of two stations that land within

@@ -163,15 +163,17 @@ def name_problems(ant: Antenna, where: str, names: set, ref_name: str | None) ->
 
 
 def group_problems(spec, states, own_place, where: str, taken: set) -> list[tuple[str, str]]:
-    """A switched candidate (more than one state) is not placed by layout, and its name is its own."""
+    """A switched candidate (more than one state) is moved by layout as one (its place gives no bearing or length
+    range), and its name is its own."""
     if len(states) < 2:
         return []
-    if own_place is not None:
+    if own_place is not None and (own_place.bearing is not None or own_place.length is not None):
         return [
             (
                 f"{where}.place",
-                "snrgain layout does not move a switched antenna (directions): its states are one antenna to build; "
-                "give its position by hand and leave place out",
+                "snrgain layout moves a switched antenna (directions) as one, every state where it stands: its "
+                "bearings are its directions and its length is as written, so its place takes no bearing or length "
+                "range (place = {})",
             )
         ]
     if isinstance(spec.get("name"), str) and spec["name"] in taken:
@@ -255,6 +257,6 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
                 problem = own_place.problem_for(first)
                 if problem:
                     out.problems.append((f"{where}.place", problem))
-                out.placeable[first.name] = own_place
+                out.placeable[spec["name"] if len(states) > 1 else first.name] = own_place  # a switched one: its name
     out.problems.extend(attach_combinations(out.antennas, out.wheres))
     return out

@@ -71,34 +71,111 @@ def state_label(bearing_deg: float) -> str:
 
 _BEARINGS = TypeAdapter(list[Bearing])
 
+MAX_STATE_NAME = 24
+"""The longest name a state may be given [characters] (it appears in tables beside the antenna's name)."""
+STATE_KEYS = ("name", "bearing")
+"""The keys of a named state's table: ``{name = "EU", bearing = "45 deg"}``."""
+_EXAMPLE = '["45 deg", "225 deg"] or [{name = "Europe", bearing = "45 deg"}, {name = "Pacific", bearing = "300 deg"}]'
 
-def _directions_problem(directions, where: str) -> tuple[list[float] | None, list[tuple[str, str]]]:
-    """The bearings of ``directions`` [rad] as written, or the problems (named ``<where>.directions``)."""
+
+def named_label(name: str, bearing_deg: float) -> str:
+    """A named state's label: its name and its bearing.
+
+    >>> named_label("front", 45.0)
+    'front (45 deg)'
+    """
+    b = round(float(bearing_deg) % 360.0, 1) % 360.0
+    return f"{name} ({b:g} deg)"
+
+
+def _state_name_problem(name, taken: dict[str, int]) -> str | None:
+    """Why ``name`` cannot name a state (``taken``: the names given before, folded, -> their direction)."""
+    if not isinstance(name, str):
+        return f'a state\'s name is text, e.g. "front" or "EU"; got {name!r}'
+    text = name.strip()
+    if not text:
+        return "a state's name is text of at least one character; got an empty name"
+    if len(text) > MAX_STATE_NAME:
+        return f"a state's name is at most {MAX_STATE_NAME} characters; {name!r} has {len(text)}"
+    if not text.isprintable():
+        return f"a state's name is printable text on one line; got {name!r}"
+    if text.casefold() in taken:
+        return f"{name!r} names direction {taken[text.casefold()]} already; give each state a name of its own"
+    return None
+
+
+def _split_directions(directions, key: str) -> tuple[list, list[str | None], list[tuple[str, str]]]:
+    """``directions`` as (bearings as written, state names or None, problems): each entry a bearing, or a table
+    of a name and a bearing."""
+    bearings, names, problems = [], [], []
+    taken: dict[str, int] = {}
+    for i, entry in enumerate(directions):
+        where = f"{key}.{i + 1}"
+        if not isinstance(entry, dict):
+            bearings.append(entry)
+            names.append(None)
+            continue
+        unknown = [k for k in entry if k not in STATE_KEYS]
+        if unknown:
+            hint = ' (a state\'s direction is its bearing: bearing = "45 deg")' if "azimuth" in unknown else ""
+            problems.append((where, f"a named state has the keys name and bearing; unknown {unknown[0]!r}{hint}"))
+            continue
+        missing = [k for k in STATE_KEYS if k not in entry]
+        if missing:
+            problems.append(
+                (where, f'a named state needs {" and ".join(missing)}, e.g. {{name = "EU", bearing = "45 deg"}}')
+            )
+            continue
+        why = _state_name_problem(entry["name"], taken)
+        if why:
+            problems.append((f"{where}.name", why))
+            continue
+        taken[entry["name"].strip().casefold()] = i + 1
+        bearings.append(entry["bearing"])
+        names.append(entry["name"].strip())
+    return bearings, names, problems
+
+
+def _directions_problem(directions, where: str) -> tuple[list[float] | None, list[str | None], list[tuple[str, str]]]:
+    """The bearings of ``directions`` [rad] as written and the states' names (None: unnamed), or the problems (named
+    ``<where>.directions``)."""
     key = f"{where}.directions"
     if not isinstance(directions, list):
-        return None, [
-            (key, f'a list of 2 to {MAX_DIRECTIONS} bearings, e.g. ["45 deg", "225 deg"]; got {directions!r}')
-        ]
+        return (
+            None,
+            [],
+            [(key, f"a list of 2 to {MAX_DIRECTIONS} bearings or named states, e.g. {_EXAMPLE}; got {directions!r}")],
+        )
     if not 2 <= len(directions) <= MAX_DIRECTIONS:
-        return None, [
-            (key, f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; got {len(directions)} ({directions!r})")
-        ]
+        return (
+            None,
+            [],
+            [(key, f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; got {len(directions)} ({directions!r})")],
+        )
+    written, names, problems = _split_directions(directions, key)
+    if problems:
+        return None, [], problems
     try:
-        bearings = _BEARINGS.validate_python(directions)
+        bearings = _BEARINGS.validate_python(written)
     except ValidationError as exc:
-        return None, pydantic_problems(exc, key, directions)
-    labels = [state_label(np.degrees(b)) for b in bearings]
-    for i, lab in enumerate(labels):
-        if lab in labels[:i]:
-            j = labels.index(lab)
-            return None, [
-                (
-                    f"{key}.{i + 1}",
-                    f"{directions[i]!r} is the same bearing as direction {j + 1} ({directions[j]!r}) to 0.1 deg; "
-                    "give each state a bearing of its own",
-                )
-            ]
-    return [float(b) for b in bearings], []
+        named = {f"{key}.{i + 1}" for i, n in enumerate(names) if n is not None}
+        return None, [], [(f"{k}.bearing" if k in named else k, m) for k, m in pydantic_problems(exc, key, written)]
+    same = [round(float(np.degrees(b)) % 360.0, 1) % 360.0 for b in bearings]
+    for i, b in enumerate(same):
+        if b in same[:i]:
+            j = same.index(b)
+            return (
+                None,
+                [],
+                [
+                    (
+                        f"{key}.{i + 1}",
+                        f"{written[i]!r} is the same bearing as direction {j + 1} ({written[j]!r}) to 0.1 deg; "
+                        "give each state a bearing of its own",
+                    )
+                ],
+            )
+    return [float(b) for b in bearings], names, []
 
 
 def _switch_problem(family, spec: dict, where: str) -> str | None:
@@ -141,7 +218,7 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
     family = FAMILIES.get(name) if isinstance(name, str) else None
     if family is None:
         return [(spec, {})], []  # the family's own check names the problem
-    bearings, problems = _directions_problem(directions, where)
+    bearings, state_names, problems = _directions_problem(directions, where)
     if problems:
         return [], problems
     if not isinstance(spec.get("name"), str) or not spec["name"]:
@@ -162,7 +239,7 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
             ]
         how = "port" if "port" in family.params.model_fields else "ends"
     degs = [float(np.degrees(b)) % 360.0 for b in bearings]
-    labels = tuple(state_label(d) for d in degs)
+    labels = tuple(state_label(d) if n is None else named_label(n, d) for n, d in zip(state_names, degs))
     group = spec.get("name")
     out = []
     for i, (b, label) in enumerate(zip(bearings, labels)):

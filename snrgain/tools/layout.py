@@ -3,8 +3,9 @@
 A candidate with a ``place`` table (``place = { bearing = ["20 deg", "70 deg"],
 length = ["150 m", "300 m"] }``) may stand anywhere on the lot (``[site]
 lot``) outside the keep-out areas and clear of the transmitting vertical
-(``[site] tx_clearance`` when given, a hard rule; without it long wires keep
-half a wavelength and every other antenna's score carries what the vertical,
+(``[site] tx_clearance`` when given, a hard rule; without it a two-wire line's
+reversed port and pattern tables keep half a wavelength and every other
+antenna's score carries what the vertical,
 in ``[site] tx_state``, costs its RDF where it stands: snrgain.model.scatter),
 at least 10 m from any other wire (common
 practice: closer, wires couple), with its bearing
@@ -29,6 +30,11 @@ The search (deterministic, so reproducible):
 
 The next-best combinations are reported too, so a builder can weigh a
 layout that is nearly as good and easier to build.
+
+A switched antenna (``directions``) with a ``place`` table moves as one: every state stands where it stands (a
+reversed wire's other state at the far end of the same wire), its bearings its directions and its length as
+written.  Its worth is, over the targets nearest its states' bearings, each target's SNR gain in its best state
+(as the station plan counts it), averaged as power ratios like a layout's.
 """
 
 from __future__ import annotations
@@ -38,6 +44,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from snrgain.decide.lot import footprint, polygon, tx_clearance_m
+from snrgain.scenario.switched import switched_state
 from snrgain.units import length_text, length_unit_of
 
 BEARING_STEP_RAD = float(np.radians(5.0))
@@ -61,6 +68,8 @@ class Design:
     north_m: float
     bearing_rad: float | None
     length_m: float | None
+    states: tuple[str, ...] = ()
+    """A switched antenna's states (their names), moved as one; empty for an antenna that is not switched."""
 
 
 @dataclass(frozen=True)
@@ -98,9 +107,16 @@ class Problem:
         )  # a metre inside the boundary: fences, and rounding of the written values
         self.lot = inner if not inner.is_empty and inner.geom_type == "Polygon" else outline
         self.keep = [polygon(pts, f"site.keep_out {n!r}") for n, pts in sc.site.keep_out]
-        self.names = [n for n in (a.name for a in sc.candidates) if n in sc.placeable]
+        members = list(dict.fromkeys(_member(a) for a in sc.candidates))
+        self.names = [n for n in members if n in sc.placeable]
         self.places = [sc.placeable[n] for n in self.names]
-        self.index = [[a.name for a in sc.candidates].index(n) for n in self.names]
+        self.members = [[k for k, a in enumerate(sc.candidates) if _member(a) == n] for n in self.names]
+        """Each placeable candidate's antennas (indices in sc.candidates): one, or a switched antenna's states."""
+        self.switched = [switched_state(sc.candidates[ks[0]]) is not None for ks in self.members]
+        self.state_names = [
+            tuple(sc.candidates[k].name for k in ks) if sw else () for ks, sw in zip(self.members, self.switched)
+        ]
+        self.index = [ks[0] for ks in self.members]
         self.base = [sc.candidates[k] for k in self.index]
         minx, miny, maxx, maxy = outline.bounds
         self.extent_m = float(np.hypot(maxx - minx, maxy - miny))
@@ -119,9 +135,14 @@ class Problem:
         self.placed = [s for s in sc.noise.local if s.position_m is not None]
         self.ref_m = sc.reference.params.position or (0.0, 0.0)
         self.target = []
-        for pl, ant in zip(self.places, self.base):
+        """The targets each placeable candidate is scored toward (indices): one, or a switched antenna's several."""
+        for pl, ant, ks, sw in zip(self.places, self.base, self.members, self.switched):
+            if sw:
+                bearings = [np.radians(switched_state(sc.candidates[k]).bearing_deg) for k in ks]
+                self.target.append(tuple(sorted({nearest_target(sc, b) for b in bearings})))
+                continue
             b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
-            self.target.append(nearest_target(sc, b))
+            self.target.append((nearest_target(sc, b),))
         from snrgain.model.scatter import tx_antenna
 
         self.tx = None
@@ -137,7 +158,8 @@ class Problem:
         self.scatterer = tx_vertical(sc) if self.tx is not None else None
         self.structures = structure_scatterers(sc)
         self.cost_computed = [modelled(a.at((0.0, 0.0))) for a in self.base]
-        fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in self.names and a.long_wire]
+        moved = {sc.candidates[k].name for ks in self.members for k in ks}
+        fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in moved and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
@@ -184,18 +206,55 @@ class Problem:
         the target's hours), without the spreads, through the same stages at once."""
         from snrgain import pipeline
 
+        if self.switched[i]:
+            return self.switched_gains_db(designs, i)
         d0 = designs[0]
         ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m)
         ants = [ant0.at((d.east_m, d.north_m)) for d in designs]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
-        gains = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i]]
+        gains = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i][0]]
         return gains - self.tx_costs_db(ants)
+
+    def states_at(self, i: int, d: Design) -> list:
+        """Switched candidate i's states standing at design ``d``: each at its feed point, a reversed wire's other
+        state at the far end of the same wire."""
+        from snrgain.scenario.switched import far_end
+
+        first = self.sc.candidates[self.members[i][0]]
+        out = []
+        for k in self.members[i]:
+            a = self.sc.candidates[k]
+            sw = switched_state(a)
+            pos = (d.east_m, d.north_m)
+            if sw.how == "ends" and sw.index == 1:
+                pos = far_end(first, first.bearing_rad, pos)
+            out.append(a.at(pos))
+        return out
+
+    def switched_gains_db(self, designs: list[Design], i: int) -> np.ndarray:
+        """Switched candidate i's worth [dB] at each design: over its targets, each target's SNR gain (the ranking's
+        statistic, less what the TX vertical costs that state where it stands) in its best state, averaged as power
+        ratios."""
+        from snrgain import pipeline
+
+        key = ("switched", i)
+        known = self._sky.get(key)
+        if known is None:
+            states = [self.sc.candidates[k] for k in self.members[i]]
+            sub = pipeline.with_candidates(self.sc, states, 1 + self.index[i])
+            known = self._sky[key] = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+        ants = [a for d in designs for a in self.states_at(i, d)]
+        sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+        g = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :] - self.tx_costs_db(ants)[:, None]
+        best = g.reshape(len(designs), len(self.members[i]), -1)[:, :, list(self.target[i])].max(axis=1)
+        return 10 * np.log10(np.mean(10 ** (best / 10), axis=1))
 
     def tx_costs_db(self, ants) -> np.ndarray:
         """What the transmitting vertical, in the site's tx_state, and the site's structures take from each placed
         antenna's RDF [dB] (the SNR gain's change under a uniform sky: snrgain.model.scatter; the scatterers one by
-        one, summed), 0 where it is not computed (long wires, which keep the clearance rule instead)."""
+        one, summed), 0 where it is not computed (a two-wire reversed port, pattern tables: the clearance rule)."""
         from snrgain.model.scatter import tx_cost, wire_terms
 
         total = np.zeros(len(ants))
@@ -242,8 +301,8 @@ class Problem:
             inter = shape.intersection(k)
             out[f"keep-out area {name!r}"] = inter.length if shape.length > 0 else (1.0 if not inter.is_empty else 0.0)
         if self.tx is not None and (self.clearance_given or not self.cost_computed[self.names.index(d.name)]):
-            # a given clearance is a hard rule; without one only the antennas whose coupling is not computed (long
-            # wires) keep half a wavelength (the others' cost is taken from their score: tx_costs_db)
+            # a given clearance is a hard rule; without one only the antennas whose coupling is not computed (a
+            # two-wire reversed port, pattern tables) keep half a wavelength (the others' cost is in their score)
             out[f"{length_text(self.clearance, self.sc.site.length_unit, 0)} from the transmitting vertical"] = max(
                 0.0, self.clearance - shape.distance(self.tx)
             )
@@ -263,7 +322,7 @@ class Problem:
         """Candidate i's designs on the grid that keep every rule, from geometry alone (no SNR worked out); a
         ValueError naming the rules that bind, most binding first, when there is none."""
         pairs, points = self.grid_designs(i)
-        designs = [Design(self.names[i], e, n, b, ln) for b, ln in pairs for e, n in points]
+        designs = [Design(self.names[i], e, n, b, ln, self.state_names[i]) for b, ln in pairs for e, n in points]
         found, blocked = [], {}
         for d in designs:
             broken = self.violations(d)
@@ -361,7 +420,7 @@ class Problem:
         return Layout(
             tuple(designs),
             tuple(self.snr_gain_db(d, i) for i, d in enumerate(designs)),
-            tuple(self.sc.targets[self.target[i]].name for i in range(len(designs))),
+            tuple(", ".join(self.sc.targets[t].name for t in self.target[i]) for i in range(len(designs))),
         )
 
     def refine(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
@@ -432,7 +491,8 @@ class Problem:
                 ln = None
                 if ant.long_wire:
                     ln = float(rng.uniform(*pl.length)) if pl.length is not None else ant.length_m
-                ds.append(Design(self.names[i], float(rng.uniform(minx, maxx)), float(rng.uniform(miny, maxy)), b, ln))
+                e, n = float(rng.uniform(minx, maxx)), float(rng.uniform(miny, maxy))
+                ds.append(Design(self.names[i], e, n, b, ln, self.state_names[i]))
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
                 return self._layout(ds)
         raise ValueError("layout: no valid random placement found")
@@ -444,13 +504,26 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
     layout's designs in place of the placed candidates, each labelled with its SNR gain; and the layout itself."""
     from snrgain.outputs.siteplan import plan_of
 
-    gains = {
-        d.name: f"{g:+.1f} dB toward {t} (placed by layout)"
-        for d, g, t in zip(layout.designs, layout.snr_gain_db, layout.targets)
-    }
-    plan = plan_of(problem.sc, data=problem.data, designs=layout.designs, gains=gains)
+    gains, designs = {}, []
+    for i, (d, g, t) in enumerate(zip(layout.designs, layout.snr_gain_db, layout.targets)):
+        note = f"{g:+.1f} dB toward {t} (placed by layout)"
+        if not d.states:
+            gains[d.name] = note
+            designs.append(d)
+            continue
+        for a in problem.states_at(i, d):  # a switched antenna: each state drawn where it stands
+            gains[a.name] = f"{note}, in its best state"
+            e, n = a.params.position
+            designs.append(Design(a.name, e, n, _bearing_of(a), getattr(a, "length_m", None) if a.long_wire else None))
+    plan = plan_of(problem.sc, data=problem.data, designs=tuple(designs), gains=gains)
     plan["layout"] = as_dict([layout])["layouts"][0]
     return plan
+
+
+def _member(antenna) -> str:
+    """The candidate an antenna belongs to: its own name, or the switched antenna it is a state of."""
+    sw = switched_state(antenna)
+    return antenna.name if sw is None else sw.group
 
 
 def _bearing_of(antenna) -> float | None:
@@ -490,6 +563,7 @@ def as_dict(layouts: list[Layout]) -> dict:
                         "position_m": [d.east_m, d.north_m],
                         "bearing_deg": None if d.bearing_rad is None else float(np.degrees(d.bearing_rad)),
                         "length_m": d.length_m,
+                        **({"states": list(d.states)} if d.states else {}),
                         "target": t,
                         "snr_gain_db": g,
                     }
@@ -515,6 +589,9 @@ def with_layout(text: str, layout: Layout, unit: str | None = None) -> str:
     for d in layout.designs:
         pos = f"[{length_literal(d.east_m, unit)}, {length_literal(d.north_m, unit)}]"
         add = [f"position = {pos}   # placed by snrgain layout\n"]
+        if d.states:  # a switched antenna: its bearings are its directions, its length as written
+            text = rewrite_table(text, "[[candidate]]", d.name, drop={"position", "place"}, add=add)
+            continue
         if d.bearing_rad is not None:
             add.append(f'bearing = "{np.degrees(d.bearing_rad):.1f} deg"\n')
         if d.length_m is not None:

@@ -171,13 +171,16 @@ def apply(data: dict, varies: list[Vary], values) -> dict:
     """A copy of the raw scenario with each varied key set to its value in this design."""
     out = copy.deepcopy(data)
     for vary, value in zip(varies, values):
-        table = _table(out, vary)
+        top = out.get("band") if vary.table == "band" else None
+        # a scenario of several bands ([[band]]): a band's key is set in every band (one is run with --band)
+        tables = [t for t in top if isinstance(t, dict)] if isinstance(top, list) else [_table(out, vary)]
         *path, last = vary.key.split(".")
-        for part in path:
-            table = table.setdefault(part, {})
-            if not isinstance(table, dict):
-                raise VaryError(vary.text, f"{part!r} is not a table in {vary.table!r}")
-        table[last] = value
+        for table in tables:
+            for part in path:
+                table = table.setdefault(part, {})
+                if not isinstance(table, dict):
+                    raise VaryError(vary.text, f"{part!r} is not a table in {vary.table!r}")
+            table[last] = copy.deepcopy(value)
     return out
 
 
@@ -211,6 +214,19 @@ class Study:
     """Rank against this antenna of the scenario instead of its [reference] (``--reference``)."""
     band: str | None = None
     """The band of a scenario of several (``--band``)."""
+    bands: tuple[str, ...] = ()
+    """Every band of a scenario of several, when no ``--band`` picks one: each design runs in each band, and the rows
+    gain a ``band`` column (after ``design``)."""
+
+    def in_band(self, band: str) -> Study:
+        """This study in one of its bands (the same object for the same band, so the shared stages are made once)."""
+        key = (id(self), band)
+        hit = _BAND_STUDIES.get(key)
+        if hit is None or hit[0] is not self:  # the entry holds its study, so its id is not another's
+            if len(_BAND_STUDIES) > 64:
+                _BAND_STUDIES.clear()
+            hit = _BAND_STUDIES[key] = (self, replace(self, band=band, bands=()))
+        return hit[1]
 
     @property
     def fast(self) -> bool:
@@ -245,9 +261,16 @@ class Study:
         return sc
 
 
+_BAND_STUDIES: dict[tuple[int, str], tuple[Study, Study]] = {}
+
+
 def validate(study: Study) -> None:
     """Check every varied key before any work: its table exists, and the first and last value of each (every
-    value of a list) give a valid scenario.  Raises VaryError naming the argument."""
+    value of a list) give a valid scenario (in every band).  Raises VaryError naming the argument."""
+    for band in study.bands:
+        validate(study.in_band(band))
+    if study.bands:
+        return
     base_values = [v.values[0] for v in study.varies]
     for i, vary in enumerate(study.varies):
         ends = vary.values if len(vary.values) <= 16 else [vary.values[0], vary.values[-1]]
@@ -309,20 +332,33 @@ class _Shared:
         return pipeline.antenna_results(sub, p, self.skies)[1]
 
 
-_SHARED: dict[int, _Shared] = {}
+_SHARED: dict[int, tuple[Study, _Shared]] = {}
+
+
+MAX_SHARED = 16
+"""The most studies whose shared stages a process keeps (one per band of a sweep over several bands)."""
 
 
 def _shared(study: Study) -> _Shared:
     key = id(study)
-    shared = _SHARED.get(key)
-    if shared is None:
-        _SHARED.clear()
-        shared = _SHARED[key] = _Shared(study)
-    return shared
+    hit = _SHARED.get(key)
+    if hit is None or hit[0] is not study:  # the entry holds its study, so its id is not another's
+        if len(_SHARED) >= MAX_SHARED:
+            _SHARED.clear()
+        hit = _SHARED[key] = (study, _Shared(study))
+    return hit[1]
 
 
 def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
-    """Rows (one per design, varied antenna and target) for a chunk of (design number, values)."""
+    """Rows (one per design, varied antenna and target; per band too for a study of several bands) for a chunk of
+    (design number, values)."""
+    if study.bands:
+        rows = []
+        for item in chunk:  # design by design, each in every band: the rows' order does not depend on the chunks
+            for band in study.bands:
+                for row in run_designs(study.in_band(band), [item]):
+                    rows.append({"design": row.pop("design"), "band": band, **row})
+        return rows
     from snrgain.model import pipeline
 
     rows = []

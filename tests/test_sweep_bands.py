@@ -1,0 +1,61 @@
+"""A sweep of a scenario of several bands: each design in every band, a ``band`` column, each band's rows those of
+a sweep of that band alone (``--band``)."""
+
+import csv
+
+from click.testing import CliRunner
+
+from snrgain.cli.main import cli
+from tests.conftest import REPO
+
+SITE = REPO / "tests" / "data" / "sites" / "three-bands.toml"
+VARY = ["--vary", "Beverage Europe: length = 200 m, 260 m"]
+
+
+def _rows(path):
+    with open(path, newline="", encoding="utf-8") as fh:
+        return list(csv.DictReader(fh))
+
+
+def test_every_band_at_once_equals_each_band_alone(tmp_path):
+    runner = CliRunner()
+    res = runner.invoke(cli, ["sweep", str(SITE), *VARY, "-o", str(tmp_path / "all.csv")])
+    assert res.exit_code == 0, res.output
+    assert "in each of 3 bands (160 m, 80 m, 40 m)" in res.output
+    rows = _rows(tmp_path / "all.csv")
+    assert list(rows[0])[:2] == ["design", "band"]
+    # design by design, each in every band, in the order of the file (a band's targets are those listened on it)
+    order = list(dict.fromkeys((r["design"], r["band"]) for r in rows))
+    assert order == [(d, b) for d in ("0", "1") for b in ("160 m", "80 m", "40 m")]
+    for band in ("160 m", "80 m", "40 m"):
+        out = tmp_path / f"{band[:-2]}.csv"
+        res = runner.invoke(cli, ["sweep", str(SITE), *VARY, "--band", band, "-o", str(out)])
+        assert res.exit_code == 0, res.output
+        alone = _rows(out)
+        assert "band" not in alone[0]
+        mine = [{k: v for k, v in r.items() if k != "band"} for r in rows if r["band"] == band]
+        assert mine == alone, band
+    # the bands differ: the Beverage is not the same antenna on 160 m and 40 m
+    by = {(r["band"], r["design"], r["target"]): float(r["snr_gain_db"]) for r in rows}
+    assert abs(by[("160 m", "0", "Europe")] - by[("40 m", "0", "Europe")]) > 0.1
+
+
+def test_a_band_key_varied_in_a_file_of_several_bands(tmp_path):
+    # [[band]] is a list of tables: a band's key is set in every band (it used to stop with a TypeError).  At the
+    # 80 m band's own frequency the rows are those of the file as written; at another they move.
+    runner = CliRunner()
+    out, same = tmp_path / "f.csv", tmp_path / "same.csv"
+    vary = ["--vary", "band: frequency = 3.55 MHz, 3.8 MHz"]
+    res = runner.invoke(cli, ["sweep", str(SITE), "--band", "80 m", *vary, "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    res = runner.invoke(
+        cli, ["sweep", str(SITE), "--band", "80 m", "--vary", "Beverage Europe: length = 240 m", "-o", str(same)]
+    )
+    assert res.exit_code == 0, res.output
+    keys = ("antenna", "target", "snr_gain_db", "rdf_db")
+    rows = _rows(out)
+    at_own = [tuple(r[k] for k in keys) for r in rows if r["band: frequency"] == "3.55 MHz"]
+    as_written = [tuple(r[k] for k in keys) for r in _rows(same) if r["antenna"] == "Beverage Europe"]
+    assert [r for r in at_own if r[0] == "Beverage Europe"] == as_written
+    moved = [tuple(r[k] for k in keys) for r in rows if r["band: frequency"] == "3.8 MHz"]
+    assert moved != at_own
