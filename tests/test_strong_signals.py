@@ -81,6 +81,13 @@ def test_beverage_next_to_a_medium_wave_station_is_warned_with_level_and_filter(
     assert v["filter_db"] == pytest.approx(bev["stage_input_dbm"] - (5.0 - 10.0), abs=0.01)
     text = next(w for w in r.warnings if w.startswith("Beverage north-east: nearby transmitters"))
     assert "Kestrel medium-wave relay" in text and f"{v['filter_db']:.0f} dB" in text
+    # the Beverage's level is delivered through its modelled transformer; a vertical's is the power available to a
+    # matched load, an upper bound, and its warning says so
+    assert bev["terminal_power"] == "delivered" and not v["upper_bound"] and "upper bound" not in text
+    for n in r.notices:
+        if n.code.startswith("strong-signal") and rows[n.antenna]["terminal_power"] == "available":
+            said = next(w for w in r.warnings if w.startswith(f"{n.antenna}: "))
+            assert n.values["upper_bound"] and "upper bound" in said
     # nothing else about the ranking changes: the strong signals only add rows and notices
     quiet = snrgain.evaluate(SITE.read_text().split("[[strong_signal]]")[0])
     assert quiet.candidates[0].snr_gain_median_db == pytest.approx(r.candidates[0].snr_gain_median_db, abs=1e-12)

@@ -121,6 +121,7 @@ def with_strong_signals(sc, results):
                         "over_db": st.COMPRESSION_MARGIN_DB - headroom,
                         "filter_db": st.COMPRESSION_MARGIN_DB - headroom,
                         "assumed": [k for k in limits.assumed if k == "p1db"],
+                        "upper_bound": not hasattr(built, "receiver_load_ohm"),
                     },
                 )
             )
@@ -146,6 +147,7 @@ def with_strong_signals(sc, results):
                             "over_db": excess,
                             "filter_db": excess / p.order,
                             "assumed": [k for k in limits.assumed if k == f"iip{p.order}"],
+                            "upper_bound": not hasattr(built, "receiver_load_ohm"),
                         },
                     )
                 )

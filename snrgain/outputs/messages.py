@@ -13,6 +13,17 @@ from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
 from snrgain.units import length_text, per_m
 
 
+def _upper_bound(v) -> str:
+    """What a strong-signal level is for an antenna without a modelled feed load (a vertical, a small loop, a
+    pattern table): the power available to a matched load, an upper bound on what its feed delivers."""
+    if not v.get("upper_bound"):
+        return ""
+    return (
+        " (an upper bound: the power this antenna makes available to a matched load; a short vertical or small loop "
+        "delivers less into a 50 ohm input)"
+    )
+
+
 def _assumed(keys) -> str:
     if not keys:
         return ""
@@ -100,6 +111,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"(loudest: {v['loudest']}, {v['loudest_hz'] / 1e6:g} MHz), {v['over_db']:.0f} dB more than it takes "
             f"safely (its 1 dB compression point {v['p1db_dbm']:+g} dBm less {v['margin_db']:g} dB)"
             + _assumed(v["assumed"])
+            + _upper_bound(v)
             + f"; a filter (e.g. a high-pass below the band) of at least {v['filter_db']:.0f} dB at those "
             "frequencies before the first amplifier cures it"
         )
@@ -108,7 +120,10 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"{n.antenna}: {v['stations'][0]} and {v['stations'][1]} mix in the {v['stage']} into a {kind}-order "
             f"product at {v['freq_hz'] / 1e6:.3f} MHz of {v['level_dbm']:+.0f} dBm, {v['over_db']:.0f} dB above the "
-            f"quietest hour's noise there" + _assumed(v["assumed"]) + f"; {v['filter_db']:.0f} dB of filtering at "
+            f"quietest hour's noise there"
+            + _assumed(v["assumed"])
+            + _upper_bound(v)
+            + f"; {v['filter_db']:.0f} dB of filtering at "
             "both stations' frequencies before the first amplifier brings it down to the noise"
         )
     if n.code == "source-in-keep-out":
