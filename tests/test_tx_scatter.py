@@ -498,3 +498,29 @@ def test_a_ground_variant_keeps_the_vertical_beside_the_antenna():
     was = next(a for a in sc.antennas if a.name == "flag near")
     assert bare(flag) is not flag and flag.scatterers == was.scatterers
     assert bare(flag).ground is not bare(was).ground
+
+
+def test_the_vertical_next_door_stays_when_another_antenna_is_the_reference():
+    """``--reference`` makes another antenna the reference; the transmitting vertical is still the file's and still
+    re-radiates into every other antenna (the flag 20 m from it hears the same noise, and the same toward the
+    target, either way); naming it in ``[site] transmitting`` gives the same; "none" leaves it out, as the open
+    base does; a name that is no vertical of the scenario is refused naming the key."""
+    import snrgain
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import load
+
+    text = SMALL_LOT.format(extra="")
+    file_run = {a.name: a for a in snrgain.evaluate(text).antennas}
+    other = load(text, reference="flag far")
+    assert other.reference.name == "flag far" and other.transmitting == "vertical"
+    other_run = {a.name: a for a in snrgain.evaluate(other).antennas}
+    for name in ("flag near", "pair"):
+        np.testing.assert_allclose(other_run[name].noise_dbm, file_run[name].noise_dbm, atol=1e-6)
+        np.testing.assert_allclose(other_run[name].rdf_db, file_run[name].rdf_db, atol=1e-6)
+    named = snrgain.evaluate(text.replace('name = "small lot"', 'name = "small lot"\ntransmitting = "vertical"'))
+    assert named.antenna("flag near").rdf_db[0] == pytest.approx(file_run["flag near"].rdf_db[0], abs=1e-9)
+    none = snrgain.evaluate(SMALL_LOT.format(extra='transmitting = "none"'))
+    detuned = snrgain.evaluate(SMALL_LOT.format(extra='tx_state = "detuned"'))
+    assert none.antenna("flag near").rdf_db[0] == pytest.approx(detuned.antenna("flag near").rdf_db[0], abs=1e-9)
+    with pytest.raises(ScenarioError, match="site.transmitting"):
+        load(SMALL_LOT.format(extra='transmitting = "pair"'))

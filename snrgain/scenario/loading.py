@@ -74,9 +74,42 @@ def load(
         problems += reading_problems(model, built, file_reference)
     if model is not None and built.antennas and not problems:
         problems += check_local_sources(model, built, file_reference)
+    transmitting = None
+    if model is not None and built.antennas and not problems:
+        transmitting, more = transmitting_vertical(model.site.transmitting, built, file_reference)
+        problems += more
     if problems:
         raise ScenarioError(label, problems)
-    return assemble(label, model, built, resolved, nside, file_reference, length_unit)
+    return assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
+
+
+def transmitting_vertical(given: str | None, built: Built, file_reference) -> tuple[str | None, list]:
+    """(the name of the site's transmitting vertical, problems): ``[site] transmitting`` when given (an antenna of
+    the scenario of the vertical family, or "none"), else the file's reference when it is a vertical (it stays the
+    vertical next door when ``--reference`` makes another antenna the reference)."""
+    if given is None:
+        ant = file_reference if file_reference is not None else built.antennas[0]
+        return (ant.name if ant.resonant_tx else None), []
+    if given.strip().lower() == "none":
+        return None, []
+    names = [a.name for a in built.antennas]
+    if given not in names:
+        return None, [
+            (
+                "site.transmitting",
+                f"no antenna named {given!r}; name the transmitting vertical among {', '.join(map(repr, names))}, "
+                "or 'none'",
+            )
+        ]
+    ant = built.antennas[names.index(given)]
+    if not ant.resonant_tx:
+        return None, [
+            (
+                "site.transmitting",
+                f"{given!r} is a {ant.family}, not a vertical: name an antenna of the vertical family",
+            )
+        ]
+    return given, []
 
 
 def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
@@ -239,6 +272,7 @@ def assemble(
     nside: int | None,
     file_reference=None,
     length_unit: str | None = None,
+    transmitting: str | None = None,
 ) -> Scenario:
     """The Scenario of a problem-free model and its antennas: each antenna's chain (its own or the scenario's),
     the times on the targets' union grid, the noise seen from the reference, the weights adding to 1; each level
@@ -276,10 +310,5 @@ def assemble(
         placeable=built.placeable,
         strong_signals=resolved.stations,
         stage_limits=tuple(stage_limits(c if c is not None else model.chain, model.receiver) for c in built.chains),
-        transmitting=_transmitting(file_reference if file_reference is not None else built.antennas[0]),
+        transmitting=transmitting,
     )
-
-
-def _transmitting(antenna) -> str | None:
-    """The name of the site's transmitting vertical: the file's reference when it is of a family that transmits."""
-    return antenna.name if antenna is not None and antenna.resonant_tx else None

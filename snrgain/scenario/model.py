@@ -123,8 +123,9 @@ class Scenario:
     stage_limits: tuple[strongmod.StageLimits, ...] = ()
     """``stage_limits[i]``: the large-signal limits of the first active stage of ``chains[i]``."""
     transmitting: str | None = None
-    """The name of the site's transmitting vertical: the file's reference when it is a vertical.  It stays the
-    vertical next door (snrgain.model.scatter) when another antenna is made the reference (``--reference``)."""
+    """The name of the site's transmitting vertical: ``[site] transmitting``, else the file's reference when it is a
+    vertical.  It stays the vertical next door (snrgain.model.scatter) when another antenna is made the reference
+    (``--reference``)."""
 
     @property
     def antennas(self) -> list[Antenna]:

@@ -64,6 +64,9 @@ class SiteSection(StrictModel):
     checks, layout)."""
     keep_out: list[KeepOut] = Field(default_factory=list, max_length=64)
     """Areas no antenna may enter: the house, a road, the transmitting vertical's radial field."""
+    transmitting: str | None = Field(default=None, min_length=1, max_length=120)
+    """The name of the antenna that is the station's transmitting vertical (the one next door: snrgain.model.scatter);
+    default the reference when it is a vertical; "none": the station has none on the plan."""
     tx_clearance: quantity("length", ge=0.0, le=2000.0) | None = None
     """How far receiving antennas must stay from the TX vertical [m], when given (else snrgain.model.scatter)."""
     tx_state: Literal["resonant", "detuned"] = "resonant"
