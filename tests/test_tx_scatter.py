@@ -524,3 +524,21 @@ def test_the_vertical_next_door_stays_when_another_antenna_is_the_reference():
     assert none.antenna("flag near").rdf_db[0] == pytest.approx(detuned.antenna("flag near").rdf_db[0], abs=1e-9)
     with pytest.raises(ScenarioError, match="site.transmitting"):
         load(SMALL_LOT.format(extra='transmitting = "pair"'))
+
+
+def test_every_computed_antenna_says_what_the_vertical_does_to_it():
+    """The results carry, per antenna the vertical's coupling is computed for, its RDF change, front-to-back and
+    forward-gain change in both states (JSON ``tx_vertical``), warned or not; the warned one's figures are the
+    notice's."""
+    import snrgain
+
+    r = snrgain.evaluate(SMALL_LOT.format(extra=""))
+    rows = {row["antenna"]: row for row in r.tx_vertical}
+    assert set(rows) == {"flag near", "flag far", "pair"}
+    for row in rows.values():
+        assert row["scatterer"] == "vertical" and row["state"] == "resonant"
+        assert row["cost_db"] == pytest.approx(-row["resonant"]["rdf_change_db"])
+        assert row["detuned"]["rdf_change_db"] == pytest.approx(0.0, abs=1e-9)  # the open base
+    notice = next(n for n in r.notices if n.code == "tx-vertical-cost")
+    assert notice.antenna == "flag near" and rows["flag near"]["cost_db"] == pytest.approx(notice.values["cost_db"])
+    assert rows["flag far"]["cost_db"] < rows["flag near"]["cost_db"]

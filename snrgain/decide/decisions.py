@@ -76,6 +76,14 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
     return out
 
 
+def _tx_rows(sc: Scenario) -> list[dict]:
+    """What the transmitting vertical and the structures do to each antenna (snrgain.model.scatter.tx_effects: the
+    same computation the notices read, made once)."""
+    from snrgain.model.scatter import tx_effects
+
+    return tx_effects(sc)[0]
+
+
 def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:
     """The Results of a scenario from its per-antenna figures: per target the candidates ranked by the median SNR
     gain toward it, and the station plan on that same statistic (snrgain.decide.plan)."""
@@ -117,6 +125,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         uncertainty=_uncertainty_dict(sc),
         beat_by_db=sc.uncertainty.beat_by_db,
         notices=notices(sc, [reference, *candidates]),
+        tx_vertical=_tx_rows(sc),
         cuts=cuts,
         lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),
         local_sources=[

@@ -142,6 +142,10 @@ class Results:
     local_sources: list[dict[str, Any]] = field(default_factory=list)
     site_plan: dict[str, Any] | None = field(default=None, repr=False)
     """The site to scale (snrgain.outputs.siteplan.plan_of), in metres; what figures and the report draw."""
+    tx_vertical: list[dict[str, Any]] = field(default_factory=list)
+    """Per antenna, what the transmitting vertical (both states) and each structure do to it where it stands: RDF
+    change, front-to-back and forward-gain change (snrgain.model.scatter.tx_effects); its ranked figures already
+    hold the state run."""
     strong_signals: list[dict[str, Any]] = field(default_factory=list)
     """Per antenna and nearby transmitter ([[strong_signal]]): its field, the level at the antenna's terminals and
     at the first active stage (snrgain.model.strong)."""
@@ -263,6 +267,7 @@ class Results:
                 "build": {c.name: c.build for c in self.candidates},
                 "switched": self._switched_dict(),
                 "local_sources": self.local_sources,
+                "tx_vertical": self.tx_vertical,
                 "strong_signals": self.strong_signals,
                 "warnings": self.warnings,
             }

@@ -208,20 +208,27 @@ def tx_cost(
     return out
 
 
-def tx_notices(sc) -> list[Notice]:
-    """``tx-vertical-cost`` for each antenna the vertical costs more than COST_WARNING_DB of RDF in the user's
-    state (values: state, cost_db, distance_m, and per state its RDF change, front-to-back and forward-gain change,
-    with the antenna's front-to-back alone); ``structure-cost`` likewise for each ``[site] structures`` entry
-    (values: structure, cost_db, distance_m, front_to_back_db, front_to_back_alone_db, forward_gain_change_db),
-    and ``structure-not-computed`` (structure, height_wavelengths) for one too tall for the model."""
-    out = []
+_EFFECTS: list = []  # the last scenario's (scenario, rows, notices): decisions asks for both
+
+
+def tx_effects(sc) -> tuple[list[dict], list[Notice]]:
+    """(rows, notices): per antenna the transmitting vertical (in both states) and each structure computed do to
+    it, a row each ({"antenna", "scatterer", "state" (the one run), "distance_m", "cost_db", "alone":
+    {rdf_db, front_to_back_db, forward_gain_dbi}, and per state its RDF change, front-to-back and forward-gain
+    change}: the results' ``tx_vertical``); and the notices (:func:`tx_notices`)."""
+    if _EFFECTS and _EFFECTS[0][0] is sc:
+        return _EFFECTS[0][1], _EFFECTS[0][2]
+    rows, out = [], []
     tx = tx_vertical(sc)
     tx_name = getattr(sc, "transmitting", None)
     for ant in sc.candidates if tx is not None else ():
         if ant.name == tx_name:
             continue
         c = tx_cost(sc, ant, tx=tx)
-        if c is None or c["cost_db"] <= COST_WARNING_DB:
+        if c is None:
+            continue
+        rows.append(_row(ant.name, tx_name, c, phys.TX_STATES))
+        if c["cost_db"] <= COST_WARNING_DB:
             continue
         values = {
             "state": c["state"],
@@ -239,7 +246,10 @@ def tx_notices(sc) -> list[Notice]:
             continue
         for ant in sc.candidates:
             c = tx_cost(sc, ant, tx=st, states={"as built": st.load_ohm})
-            if c is None or c["cost_db"] <= COST_WARNING_DB:
+            if c is None:
+                continue
+            rows.append(_row(ant.name, name, c, ("as built",)))
+            if c["cost_db"] <= COST_WARNING_DB:
                 continue
             values = {
                 "structure": name,
@@ -250,7 +260,29 @@ def tx_notices(sc) -> list[Notice]:
                 "forward_gain_change_db": c["as built"]["forward_gain_change_db"],
             }
             out.append(Notice("structure-cost", ant.name, values))
-    return out
+    _EFFECTS[:] = [(sc, rows, out)]
+    return rows, out
+
+
+def _row(antenna: str, scatterer: str | None, c: dict, states) -> dict:
+    return {
+        "antenna": antenna,
+        "scatterer": scatterer,
+        "state": c["state"],
+        "distance_m": c["distance_m"],
+        "cost_db": c["cost_db"],
+        "alone": {k: float(v) for k, v in c["alone"].items()},
+        **{s: c[s] for s in states if s in c},
+    }
+
+
+def tx_notices(sc) -> list[Notice]:
+    """``tx-vertical-cost`` for each antenna the vertical costs more than COST_WARNING_DB of RDF in the user's
+    state (values: state, cost_db, distance_m, and per state its RDF change, front-to-back and forward-gain change,
+    with the antenna's front-to-back alone); ``structure-cost`` likewise for each ``[site] structures`` entry
+    (values: structure, cost_db, distance_m, front_to_back_db, front_to_back_alone_db, forward_gain_change_db),
+    and ``structure-not-computed`` (structure, height_wavelengths) for one too tall for the model."""
+    return tx_effects(sc)[1]
 
 
 # -- the antennas as they stand beside the scatterers (a pipeline stage) -------------------------------------------
