@@ -32,6 +32,7 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
@@ -127,7 +128,7 @@ class SmallLoop(Antenna):
         up = np.array([0.0, 0.0, 1.0])
         w2, h2 = p.width / 2, p.loop_height / 2
         centre = np.array([0.0, 0.0, p.height])
-        x, wq = np.polynomial.legendre.leggauss(8)
+        x, wq = gauss_legendre(8)
         corners = [centre + a * w2 * u + b * h2 * up for a, b in ((-1, -1), (1, -1), (1, 1), (-1, 1))]
         pts, dirs, lengths = [], [], []
         for a, b in zip(corners, corners[1:] + corners[:1]):

@@ -80,6 +80,7 @@ from snrgain.antennas.longwire import (
     termination_figure,
     vertical_emf,
 )
+from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
@@ -409,9 +410,9 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         scale = np.sqrt(4 * np.pi / lam**2 * load * ETA0_OHM)
         b = self.line_bearing_rad
         u = np.array([np.sin(b), np.cos(b), 0.0])
-        xq, wq = np.polynomial.legendre.leggauss(_ALONG_POINTS)
+        xq, wq = gauss_legendre(_ALONG_POINTS)
         x, wx = 0.5 * width * (xq + 1.0), 0.5 * width * wq
-        zq, wz = np.polynomial.legendre.leggauss(_SIDE_POINTS)
+        zq, wz = gauss_legendre(_SIDE_POINTS)
         span = self.z_top - self.z_bottom
         z, wz = self.z_bottom + 0.5 * span * (zq + 1.0), 0.5 * span * wz
         along = np.multiply.outer(x, u)
