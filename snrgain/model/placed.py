@@ -319,8 +319,8 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
 def has_place(antenna) -> bool:
     """Whether an antenna stands where it was put (a ``position``, or elements at positions); one without stands at
     the reference's place and keeps the direction-only reading of a near source (its pattern toward the source)."""
-    pos = getattr(antenna, "positions", None)
-    return antenna.params.position is not None or (pos is not None and len(pos) > 0)
+    parts = getattr(antenna, "elements", None) or ()
+    return antenna.params.position is not None or any(e.params.position is not None for e in parts)
 
 
 def transmit_segments(antenna, freq_hz: float):
