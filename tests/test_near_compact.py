@@ -123,9 +123,18 @@ def _cases():
     """(antenna, ground, place, distance, height, kind): vertical sources 2 m up at every distance, 6 and 10 m up
     to 60 m, horizontal sources 4 m up (axis 30 deg off the line) at every distance."""
     out = []
-    for name, gname in (("whip", "loam"), ("whip", "dry"), ("flag", "loam"), ("pair", "loam")):
+    for name, gname in (
+        ("whip", "loam"),
+        ("whip", "dry"),
+        ("flag", "loam"),
+        ("pair", "loam"),
+        ("reference", "loam"),
+        ("reference", "dry"),
+    ):
         for p in _run(name, gname, "coarse")["points"]:
             h, d = p["height_m"], p["distance_m"]
+            if name == "reference" and d == REFERENCE_DISTANCE_M:
+                continue  # the reference against itself
             if h == 2.0 or (h in (6.0, 10.0) and d <= 60.0):
                 out.append((name, gname, p["place"], d, h, "vertical"))
             if h == 4.0:
@@ -151,6 +160,17 @@ KNOWN_MISSES = {
     # far-field equivalent of where the charge sits) miss the near field of a raised source this close.  Moving
     # the electric share onto the width or onto the charge moment's height made it worse (-9.9, -10.3 dB).
     ("flag", "loam", "back", 10.0, 10.0, "vertical"): 4.5,
+    # The quarter-wave reference itself 5-10 m from a source (against itself 50 m away): measured -5.0 and -3.0 dB
+    # (source 2 m up, loam), -2.6 (6 m up, 5 m), -3.0 and -2.9 (2 m up, 1 mS/m), +5.6 dB (the horizontal source at
+    # 5 m over 1 mS/m).  The closed-form field up the 41 m wire is the cause where checked: with the exact
+    # Sommerfeld field the 5 m case closes to -2.5 dB (test below).  Read through its pattern at its base, as
+    # before, the same cases were 20-45 dB high.
+    ("reference", "loam", "any", 5.0, 2.0, "vertical"): 6.0,
+    ("reference", "loam", "any", 10.0, 2.0, "vertical"): 4.0,
+    ("reference", "loam", "any", 5.0, 6.0, "vertical"): 3.5,
+    ("reference", "dry", "any", 5.0, 2.0, "vertical"): 4.0,
+    ("reference", "dry", "any", 10.0, 2.0, "vertical"): 4.0,
+    ("reference", "dry", "any", 5.0, 4.0, "horizontal"): 6.5,
 }
 
 
@@ -161,8 +181,9 @@ def test_near_source_ratio_against_nec(case):
     # over NEC (coarse): the whip over loam within 0.6 dB (source 2-6 m up), -1.6 dB at 15 m with it 10 m up; over
     # 1 mS/m within 1.3 dB (-2.0 at 15 m, 10 m up; +1.7 dB for the horizontal source at 5 m); the flag within 2.5 dB
     # except the known miss; the pair within 0.7 dB with the source 2 m up and 2.3 dB 6-10 m up, but for the known
-    # miss.  Through the pattern at the antenna's point (the reading before) the same cases missed by up to 7 dB
-    # (whip), 31 dB (flag) and 64 dB (pair).
+    # miss; the reference itself (against its reading 50 m away) within 2 dB from 15 m out.  Through the pattern at
+    # the antenna's point (the reading before) the same cases missed by up to 7 dB (whip), 31 dB (flag), 64 dB (pair)
+    # and 45 dB (the reference at 5 m).
     name, gname, place, d, h, kind = case
     err = _error_db(name, gname, "coarse", _point(name, gname, "coarse", place, d, h), kind)
     err_fine = _error_db(name, gname, "fine", _point(name, gname, "fine", place, d, h), kind)
@@ -217,6 +238,21 @@ def test_pairs_known_miss_is_the_closed_form_field(monkeypatch):
     monkeypatch.setattr(placed, "field_vector", _exact_field_vector)
     pm, pn = _powers("pair", "loam", "coarse", pt, "vertical")
     assert abs(10 * np.log10(pm / pn)) < TOLERANCE_DB
+
+
+def test_references_close_miss_is_the_closed_form_field(monkeypatch):
+    # The reference 5 m from a source 2 m up (KNOWN_MISSES): -5.0 dB with the closed-form field, -2.5 dB with the
+    # exact Sommerfeld field through the same currents (measured; the 50 m reading moves by 0.4 dB between them).
+    near = _point("reference", "loam", "coarse", "any", 5.0, 2.0)
+    far = _point("reference", "loam", "coarse", "any", REFERENCE_DISTANCE_M, 2.0)
+
+    def ratio():
+        (pm, pn), (rm, rn) = (_powers("reference", "loam", "coarse", p, "vertical") for p in (near, far))
+        return 10 * np.log10((pm / rm) / (pn / rn))
+
+    assert ratio() < -4.0
+    monkeypatch.setattr(placed, "field_vector", _exact_field_vector)
+    assert abs(ratio()) < 3.0
 
 
 # -- invariants --------------------------------------------------------------------------------------------------
