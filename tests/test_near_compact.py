@@ -405,3 +405,14 @@ def test_phasing_unit_adds_its_parts_read_through_their_currents():
     w = set_.weights_at(F)
     expect = abs(w[0] * a_w + w[1] * a_f) ** 2 / float(np.real(w.conj() @ w))
     assert placed.received_power(set_, src, F, (0.0, 0.0), g) == pytest.approx(expect, rel=1e-9)
+
+
+def test_a_source_on_a_loops_wire_is_refused_naming_the_field():
+    # The plan check keeps a source 1 m from each antenna's feed point; a loop's far side lies a width away, so the
+    # currents' own points say when a source sits on the wire.
+    flag = from_spec({**FAMILIES["flag"], "bearing": 270, "position": [0, 0], "name": "flag"})
+    on_wire = LocalSource("supply", 0.0, position_m=(8.5, 0.0), height_m=3.0)
+    with pytest.raises(ValueError, match=r"noise.local 'supply'.position: the source stands 0\.\d+ m from the wire"):
+        placed.received_power(flag, on_wire, F, (0.0, 0.0), flag.ground)
+    clear = LocalSource("supply", 0.0, position_m=(10.0, 0.0), height_m=3.0)
+    assert placed.received_power(flag, clear, F, (0.0, 0.0), flag.ground) > 0
