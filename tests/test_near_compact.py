@@ -407,12 +407,62 @@ def test_phasing_unit_adds_its_parts_read_through_their_currents():
     assert placed.received_power(set_, src, F, (0.0, 0.0), g) == pytest.approx(expect, rel=1e-9)
 
 
-def test_a_source_on_a_loops_wire_is_refused_naming_the_field():
-    # The plan check keeps a source 1 m from each antenna's feed point; a loop's far side lies a width away, so the
-    # currents' own points say when a source sits on the wire.
-    flag = from_spec({**FAMILIES["flag"], "bearing": 270, "position": [0, 0], "name": "flag"})
-    on_wire = LocalSource("supply", 0.0, position_m=(8.5, 0.0), height_m=3.0)
-    with pytest.raises(ValueError, match=r"noise.local 'supply'.position: the source stands 0\.\d+ m from the wire"):
-        placed.received_power(flag, on_wire, F, (0.0, 0.0), flag.ground)
-    clear = LocalSource("supply", 0.0, position_m=(10.0, 0.0), height_m=3.0)
-    assert placed.received_power(flag, clear, F, (0.0, 0.0), flag.ground) > 0
+SCEN = """
+[site]
+name = "test lot"
+latitude = 44.2
+longitude = -71.3
+ground = "moist loam"
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[noise.local]]
+name = "supply"
+position = [{east}, 0]
+height = "3 m"
+level = "S7"
+
+[[target]]
+name = "Europe"
+bearing = 270
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "40 m"
+position = [0, 60]
+
+[[candidate]]
+name = "flag"
+family = "terminated-loop"
+width = "8.5 m"
+loop_height = "4.3 m"
+height = "1.5 m"
+termination = "900 ohm"
+bearing = 270
+position = [0, 0]
+"""
+
+
+def test_a_source_on_a_loops_far_side_is_refused_naming_the_field():
+    # The plan check keeps a placed source 1 m from each antenna; a loop is read on every part of it now, so its
+    # whole width counts, not its feed point alone (the flag runs east 8.5 m from its feed).
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    with pytest.raises(
+        ScenarioError, match=r'noise.local 1 \("supply"\).position: the source stands 0.00 m from candidate 1'
+    ):
+        snrgain.evaluate(SCEN.format(east='"8 m"'))
+    r = snrgain.evaluate(SCEN.format(east='"12 m"'))
+    assert np.isfinite(r.candidates[0].snr_gain_nominal_db[0])

@@ -316,11 +316,6 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
     return (direct + r_h * reflected) * p_h
 
 
-SEGMENT_GAP_M = 1.0
-"""The least distance in space between a placed source and the points of an antenna's transmit currents [m]: closer,
-the source sits on the wire (a loop's far side, which the plan check of the feed point does not see)."""
-
-
 def has_place(antenna) -> bool:
     """Whether an antenna stands where it was put (a ``position``, or elements at positions); one without stands at
     the reference's place and keeps the direction-only reading of a near source (its pattern toward the source)."""
@@ -344,14 +339,6 @@ def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str, segme
     voltage is the same for both, so it cancels)."""
     pts, dirs, cur = antenna.transmit_segments(freq_hz) if segments is None else segments
     pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
-    gap = float(
-        np.min(np.linalg.norm(pts + [at[0] - src.position_m[0], at[1] - src.position_m[1], -src.height_m], axis=1))
-    )
-    if gap < SEGMENT_GAP_M:
-        raise ValueError(
-            f"noise.local {src.name!r}.position: the source stands {gap:.2f} m from the wire of {antenna.name!r}; "
-            f"place it at least {SEGMENT_GAP_M:g} m away from every antenna's wires and elements"
-        )
     e = field_vector(src, at[None, :] + pts[:, :2], pts[:, 2], freq_hz, ground, kind=kind)
     v_src = np.einsum("ni,ni,n->", e, dirs, cur)
     az = float(bearing_to(src, at[None, :])[0])
