@@ -327,21 +327,10 @@ def test_horizontal_source_in_a_scenario():
         snrgain.evaluate(broadside)
 
 
-def _segment_whip(height="6 m"):
-    """A vertical that exposes its transmit currents on segments (the hook placed.received_amplitudes reads): the
-    family's own sinusoidal current on its Gauss-Legendre points, built here from the family's documented model
-    (I(z) = sin(k (h + t - z)))."""
-    from snrgain.antennas.vertical import Vertical
-
-    class SegmentWhip(Vertical):
-        def transmit_segments(self, freq_hz):
-            k = 2 * np.pi * freq_hz / C_M_PER_S
-            z = self._z
-            pts = np.column_stack([np.zeros_like(z), np.zeros_like(z), z])
-            dirs = np.tile([0.0, 0.0, 1.0], (len(z), 1))
-            return pts, dirs, np.sin(k * (self.height_m + self.top_m - z)) * self._wz
-
-    return SegmentWhip(from_spec({"family": "vertical", "height": height, "ground": "moist loam"}).params)
+def _segment_whip(height="6 m", position=(0.0, 0.0)):
+    """A whip read through its transmit currents on segments (the vertical family's ``transmit_segments``, the hook
+    placed.received_amplitudes reads): it stands at a position (one without keeps the pattern reading)."""
+    return from_spec({"family": "vertical", "height": height, "ground": "moist loam", "position": list(position)})
 
 
 @pytest.mark.parametrize("az_deg", [0.0, 30.0, 150.0, 180.0])
@@ -351,7 +340,7 @@ def test_far_source_through_the_currents_gives_the_patterns_ratio(az_deg):
     # 30 deg; in the rear, where the Beverage's pattern is 36-38 dB down, -0.30 dB at 150 deg and +0.32 dB at 180
     # (a ground wave runs along the wire with slowness cos(dphi), the 5-deg plane wave with cos(dphi) cos(5 deg)).
     bev = from_spec(BEV)
-    whip = _segment_whip()
+    whip = _segment_whip(position=(0.0, 125.0))
     az = np.radians(az_deg)
     src = _src(30e3 * np.sin(az), 125.0 + 30e3 * np.cos(az))
     got = placed.received_power(bev, src, F, (0.0, 0.0), bev.ground) / placed.received_power(

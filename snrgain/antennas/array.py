@@ -392,6 +392,35 @@ class Array(Antenna):
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
         return np.abs(ev) ** 2, np.abs(eh) ** 2
 
+    def element_amplitudes(self, freq_hz: float) -> np.ndarray:
+        """a_i with :meth:`complex_response` = sum_i a_i r_i, r_i element i's own response with its position phase:
+        the weights over the combiner's normalisation, w / sqrt(w^H Q w)."""
+        w = self.weights_at(freq_hz)
+        return w / np.sqrt(float(np.real(w.conj() @ self.norm_matrix(freq_hz) @ w)))
+
+    def transmit_segments(self, freq_hz: float):
+        """Every element's transmit currents (its family's ``transmit_segments``, scaled so that a unit plane wave
+        gives its own response) times its amplitude in the array (:meth:`element_amplitudes`: the weights, and for
+        coupled elements fed by lines the coupled currents), at its position less the elements' centroid (where
+        :func:`snrgain.model.placed.antenna_point` places the array): the hook a near source is read through.  None
+        where an element's family gives no currents (a composite is read through its parts instead)."""
+        if self.composite or not self.elements:
+            return None
+        own = [getattr(e, "transmit_segments", None) for e in self.elements]
+        if any(fn is None for fn in own):
+            return None
+        amps = self.element_amplitudes(freq_hz)
+        centre = self.positions.mean(axis=0)
+        pts, dirs, cur = [], [], []
+        for fn, pos, a in zip(own, self.positions, amps):
+            p, d, c = fn(freq_hz)
+            p = np.array(p, dtype=float)
+            p[:, :2] += pos - centre
+            pts.append(p)
+            dirs.append(np.asarray(d, dtype=float))
+            cur.append(a * np.asarray(c, dtype=complex))
+        return np.vstack(pts), np.vstack(dirs), np.concatenate(cur)
+
     def describe(self):
         p = self.params
         out = {
@@ -556,6 +585,15 @@ class PhasedVerticals(Array):
         rv = np.einsum("ij,in->jn", m, rv.reshape(len(m), -1)).reshape(shape) * scale  # no BLAS (see above)
         rh = np.einsum("ij,in->jn", m, rh.reshape(len(m), -1)).reshape(shape) * scale
         return rv, rh
+
+    def element_amplitudes(self, freq_hz: float) -> np.ndarray:
+        """As :meth:`Array.element_amplitudes`; fed by lines, the coupled currents M w times the scale
+        :meth:`element_responses` applies (each element's response is per unit input power of its own current)."""
+        a = super().element_amplitudes(freq_hz)
+        if self.params.feed != "lines":
+            return a
+        scale = np.sqrt(4 * self.params.line_impedance * self._element_input_ohm(freq_hz))
+        return np.einsum("ij,j->i", self._line_matrix(freq_hz), a) * scale
 
     def norm_matrix(self, freq_hz) -> np.ndarray:
         if self.params.feed != "current":

@@ -32,6 +32,7 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
@@ -107,6 +108,37 @@ class SmallLoop(Antenna):
         # A_e = scale |h_n|^2 (h_n = eta0 H_n for unit incident E); gain = 4 pi A_e / lambda^2.
         amp = np.sqrt(4 * np.pi * scale / lam**2)
         return tuple(np.where(above_horizon(el), amp * hn, 0.0) for hn in (h_v, h_h))
+
+    def transmit_segments(self, freq_hz: float):
+        """The loop's current on segments (the hook :func:`snrgain.model.placed.received_amplitudes` reads a near
+        source through): points (N, 3) [m east, north, up] from the loop's place (its centre in plan; heights
+        above the soil), unit directions and current times length (N,).  One uniform current around the rectangle
+        (``width`` along the bearing, ``loop_height`` up), circulating from the bearing upward (right-handed about
+        the normal n at bearing + 90 deg, the normal the pattern's H_n is taken along), on Gauss-Legendre points
+        along each side.  By Stokes' theorem sum E.dl I = -j omega mu0 I (flux of H through the loop) = -j k A I
+        h_n for a unit wave over the area A, so I = j amp / (k A) gives :meth:`complex_response` (amp h_n) for a
+        plane wave, and the field's flux through the whole loop for a near source."""
+        p = self.params
+        k = 2 * np.pi * freq_hz / C_M_PER_S
+        r_rad, r_loss = self.input_resistance_ohm(freq_hz)
+        omega = 2 * np.pi * freq_hz
+        scale = (omega * MU0_H_PER_M * self.area_m2 * p.turns) ** 2 / (4 * ETA0_OHM * (r_rad + r_loss))
+        amp = np.sqrt(4 * np.pi * scale) * freq_hz / C_M_PER_S
+        u = np.array([np.sin(p.bearing), np.cos(p.bearing), 0.0])
+        up = np.array([0.0, 0.0, 1.0])
+        w2, h2 = p.width / 2, p.loop_height / 2
+        centre = np.array([0.0, 0.0, p.height])
+        x, wq = gauss_legendre(8)
+        corners = [centre + a * w2 * u + b * h2 * up for a, b in ((-1, -1), (1, -1), (1, 1), (-1, 1))]
+        pts, dirs, lengths = [], [], []
+        for a, b in zip(corners, corners[1:] + corners[:1]):
+            side = b - a
+            length = float(np.linalg.norm(side))
+            pts.append(a[None, :] + np.multiply.outer(0.5 * (x + 1.0), side))
+            dirs.append(np.tile(side / length, (len(x), 1)))
+            lengths.append(0.5 * length * wq)
+        current = 1j * amp / (k * self.area_m2)
+        return np.vstack(pts), np.vstack(dirs), current * np.concatenate(lengths)
 
     def describe(self):
         return {

@@ -80,9 +80,10 @@ from snrgain.antennas.longwire import (
     termination_figure,
     vertical_emf,
 )
+from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
-from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
+from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
 
 AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 """Resistors tried by termination = "auto" [ohm]."""
@@ -110,6 +111,10 @@ _GL_X, _GL_W = np.polynomial.legendre.leggauss(8)
 FEED_GAP_M = 0.02
 """Half the gap at the feed and at the termination where the loop's two halves part [m] (the constants barely
 depend on it: 0.01 or 0.1 m move the capacitance by under 2 %)."""
+_ALONG_POINTS = 16
+"""Gauss-Legendre points across the width for the transmit currents (:meth:`TerminatedLoop.transmit_segments`)."""
+_SIDE_POINTS = 8
+"""Gauss-Legendre points up each side for the transmit currents."""
 _SEGMENTS = 400
 """Segments over the whole loop for the static solutions (about 5 cm on a flag)."""
 
@@ -374,6 +379,55 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         ends = (mag + ele) * ((z0 * ch + termination_ohm * sh) / denom) + (mag - ele) * (z0 * eg / denom)
         i_f = (i_f[0] + ends, i_f[1])
         return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in i_f)
+
+    def transmit_segments(self, freq_hz: float):
+        """The currents the line model gives the loop, on segments (the hook
+        :func:`snrgain.model.placed.received_amplitudes` reads a near source through): points (N, 3) [m east, north,
+        up] from the loop's place (the feed side, in plan; heights above the soil), unit directions and current
+        times length (N,), scaled so that a unit plane wave gives :meth:`complex_response`.
+
+        By reciprocity the feed current a series EMF at x along the line drives is the current the line carries at
+        x when driven at the feed, T(x) = [Z0 cosh g(w - x) + R sinh g(w - x)] / D (R the termination, D as in the
+        module docstring's line solution): +T along the top of the equivalent rectangle (from the feed side toward
+        the termination), -T back along its bottom, on Gauss-Legendre points across the width; the sides carry
+        what the model gives their EMFs, up at the feed side 0.5 [(T(0) + T(w)) + s (T(0) - T(w))] and at the
+        terminated side 0.5 [-(T(0) + T(w)) + s (T(0) - T(w))], s the electric share (with s = 1, T(0) up and T(w)
+        down: the loop's own closed current).  Times the port's scale (:func:`port_response`)."""
+        term = self.termination_ohm(freq_hz)
+        load = self._load_ohm(freq_hz, term)
+        line = self.line(freq_hz)
+        g, z0, width = line.gamma, line.z0, self.width_m
+        d = z0 * (load + term) * np.cosh(g * width) + (z0**2 + load * term) * np.sinh(g * width)
+
+        def transfer(x):
+            return (z0 * np.cosh(g * (width - x)) + term * np.sinh(g * (width - x))) / d
+
+        t0, tw = transfer(0.0), transfer(width)
+        share = self.electric_share(freq_hz)
+        c_feed = 0.5 * ((t0 + tw) + share * (t0 - tw))
+        c_far = 0.5 * (-(t0 + tw) + share * (t0 - tw))
+        lam = C_M_PER_S / freq_hz
+        scale = np.sqrt(4 * np.pi / lam**2 * load * ETA0_OHM)
+        b = self.line_bearing_rad
+        u = np.array([np.sin(b), np.cos(b), 0.0])
+        xq, wq = gauss_legendre(_ALONG_POINTS)
+        x, wx = 0.5 * width * (xq + 1.0), 0.5 * width * wq
+        zq, wz = gauss_legendre(_SIDE_POINTS)
+        span = self.z_top - self.z_bottom
+        z, wz = self.z_bottom + 0.5 * span * (zq + 1.0), 0.5 * span * wz
+        along = np.multiply.outer(x, u)
+        pts = np.vstack(
+            [
+                along + [0.0, 0.0, self.z_top],
+                along + [0.0, 0.0, self.z_bottom],
+                np.column_stack([np.zeros_like(z), np.zeros_like(z), z]),
+                np.column_stack([np.full_like(z, width * u[0]), np.full_like(z, width * u[1]), z]),
+            ]
+        )
+        dirs = np.vstack([np.tile(u, (2 * len(x), 1)), np.tile([0.0, 0.0, 1.0], (2 * len(z), 1))])
+        tx = transfer(x) * wx
+        cur = np.concatenate([tx, -tx, c_feed * wz, c_far * wz])
+        return pts, dirs, scale * cur
 
     def _gain(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm):
         ev, eh = self._response(freq_hz, azimuth_rad, elevation_rad, termination_ohm)

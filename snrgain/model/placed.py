@@ -16,19 +16,22 @@ or less it picks up of the same source:
 P the power an antenna delivers from the source's field, in units where a
 plane wave of unit field delivers the antenna's realized gain:
 
-- a compact antenna (vertical, loop, array, pattern table...) at its
-  position: P = G_v(d) |E_v|^2 + G_h(d) |E_h|^2, d the direction from the
+- a compact antenna standing where it was put (a ``position``, or an
+  array's elements) whose family exposes its transmit currents on segments
+  (``transmit_segments(freq_hz)``: points, directions, current times length;
+  verticals, small and terminated loops, arrays of them) is read by
+  reciprocity: the open-circuit voltage is the source's whole field along
+  the segments times their currents, scaled to its complex response by the
+  voltage a plane wave from the source's direction gives
+  (:func:`_through_currents`), so far away it is the pattern again (a test)
+  and close in the field where each part of the antenna stands counts;
+- any other compact antenna (a pattern table, or one without a position,
+  which stands at the reference's place and keeps the direction-only
+  reading): P = G_v(d) |E_v|^2 + G_h(d) |E_h|^2, d the direction from the
   antenna toward the source at the source's arrival elevation, E_v the
   vertical field at the soil over cos(el) (1 + R_v(el)) (the plane wave that
   has that field there), E_h the incident horizontal field across the line
   of sight (an array at the centroid of its elements);
-- a family that exposes its transmit currents on segments
-  (``transmit_segments(freq_hz)``: points, directions, current times
-  length) is read by reciprocity instead: the open-circuit voltage is the
-  source's field along the segments times their currents, scaled to its
-  complex response by the voltage a plane wave from the source's direction
-  gives (:func:`_through_currents`); no family exposes them yet (a test
-  gives the vertical's own sinusoidal current through the hook);
 - a long wire (beverage, unterminated, bog): reciprocity on its line model:
   the distributed series EMF is the source's whole field along the wire at
   its height, and each down-lead's the vertical field integrated up it
@@ -294,8 +297,9 @@ def received_amplitudes(
         e = port_response(freq_hz, np.array([i_f]), load_ohm=load, elevation_rad=np.array([src.elevation_rad]))
         return complex(e[0]), 0j
     at = antenna_point(antenna, reference_m) if at_m is None else np.asarray(at_m, dtype=float)
-    if getattr(antenna, "transmit_segments", None) is not None:
-        return _through_currents(antenna, src, freq_hz, at, ground, kind or dipoles(src)[0][0]), 0j
+    segments = transmit_segments(antenna, freq_hz) if (at_m is not None or has_place(antenna)) else None
+    if segments is not None:
+        return _through_currents(antenna, src, freq_hz, at, ground, kind or dipoles(src)[0][0], segments), 0j
     ev, eh = source_field(src, at[None, :], freq_hz, ground, kind=kind)
     az = bearing_to(src, at[None, :])
     el = np.array([src.elevation_rad])
@@ -328,14 +332,28 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
     return (direct + r_h * reflected) * p_h
 
 
-def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str) -> complex:
+def has_place(antenna) -> bool:
+    """Whether an antenna stands where it was put (a ``position``, or elements at positions); one without stands at
+    the reference's place and keeps the direction-only reading of a near source (its pattern toward the source)."""
+    parts = getattr(antenna, "elements", None) or ()
+    return antenna.params.position is not None or any(e.params.position is not None for e in parts)
+
+
+def transmit_segments(antenna, freq_hz: float):
+    """An antenna's transmit currents on segments (``antenna.transmit_segments``), or None where its family gives
+    none (or gives None: an array of elements without them)."""
+    fn = getattr(antenna, "transmit_segments", None)
+    return None if fn is None else fn(freq_hz)
+
+
+def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str, segments=None) -> complex:
     """Reciprocity through an antenna's own transmit currents: the open-circuit voltage from a source is the sum of
     the incident field along each segment times the segment's current (``antenna.transmit_segments(freq_hz)``:
     points (N, 3) [m east, north, up] from the antenna's place, unit directions (N, 3), current times length
     (N,)); its amplitude is the antenna's complex response toward the source times V_source / V_plane, V_plane
     the voltage a unit plane wave from the source's direction at its elevation gives (the load's share of the
     voltage is the same for both, so it cancels)."""
-    pts, dirs, cur = antenna.transmit_segments(freq_hz)
+    pts, dirs, cur = antenna.transmit_segments(freq_hz) if segments is None else segments
     pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
     e = field_vector(src, at[None, :] + pts[:, :2], pts[:, 2], freq_hz, ground, kind=kind)
     v_src = np.einsum("ni,ni,n->", e, dirs, cur)

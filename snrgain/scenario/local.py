@@ -78,6 +78,9 @@ def _antenna_outline(antenna, reference_m) -> list[np.ndarray]:
     if antenna.long_wire:
         b = antenna.bearing_rad
         return [np.array([p, p + antenna.length_m * np.array([np.sin(b), np.cos(b)])])]
+    width, b = getattr(antenna, "width_m", None), getattr(antenna, "line_bearing_rad", None)
+    if width is not None and b is not None:  # a loop across its width from its feed side: a near source's field
+        return [np.array([p, p + width * np.array([np.sin(b), np.cos(b)])])]  # is read on every part of it
     return [p]
 
 
