@@ -6,7 +6,7 @@ their own families even when other sections failed), so one :class:`ScenarioErro
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -23,6 +23,7 @@ from .antennas import Built, build_antennas
 from .band import Band
 from .bands import one_band
 from .compute import Uncertainty
+from .feedline import resolve_feed_lines
 from .files import read_source
 from .local import local_levels_readable, local_sources_clear
 from .model import Scenario, ScenarioModel, model_problems
@@ -74,9 +75,21 @@ def load(
         problems += reading_problems(model, built, file_reference)
     if model is not None and built.antennas and not problems:
         problems += check_local_sources(model, built, file_reference)
+    feed_lines = {}
+    if model is not None and built.antennas and built.feed_lines and not problems:
+        feed_lines, more = resolve_feed_lines(
+            built.feed_lines,
+            built.antennas,
+            built.wheres,
+            Site.of(model.site, length_unit),
+            built.antennas[0].params.position or (0.0, 0.0),
+            model.band.frequency,
+        )
+        problems += more
     if problems:
         raise ScenarioError(label, problems)
-    return assemble(label, model, built, resolved, nside, file_reference, length_unit)
+    sc = assemble(label, model, built, resolved, nside, file_reference, length_unit)
+    return replace(sc, feed_lines=feed_lines) if feed_lines else sc
 
 
 def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:

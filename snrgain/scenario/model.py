@@ -122,6 +122,8 @@ class Scenario:
     """Nearby transmitters ([[strong_signal]]), as distance and bearing from the site."""
     stage_limits: tuple[strongmod.StageLimits, ...] = ()
     """``stage_limits[i]``: the large-signal limits of the first active stage of ``chains[i]``."""
+    feed_lines: dict[str, Any] = field(default_factory=dict)
+    """Antenna name -> its feed line (snrgain.physics.feedline.FeedLine; snrgain.model.feedline)."""
 
     @property
     def antennas(self) -> list[Antenna]:

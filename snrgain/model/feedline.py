@@ -1,0 +1,240 @@
+"""Feed lines in the pipeline: what each antenna's feed line adds to its noise, and what choke would quiet it.
+
+The physics is :mod:`snrgain.physics.feedline` (the shield as a wire over the ground, loaded by the choke and the
+grounds, coupled through the antenna's feed ground).  Here it meets the integrator
+(:func:`snrgain.model.products.products`):
+
+- the sky: the feed line's "gain" into the receiver (:func:`snrgain.physics.feedline.sky_gain`) is integrated over
+  each sky component as an antenna's gain is (:func:`snrgain.model.snr.sky_temperatures`), and added to the
+  antenna's temperature from that component;
+- a placed source: the power the feed line delivers from it, in the units of :func:`snrgain.model.placed.pickup`,
+  is added to the antenna's own before its share of the source is taken (:func:`shares_with`).
+
+The two paths add in power (the physics module's docstring says when that holds).  The feed line's share of the
+noise, the SNR gain it costs and the choke resistance that brings it 20 dB below the antenna's own pickup are read
+from the products (:func:`summary`) into the antenna's build sheet, and a notice names an antenna whose feed line
+costs more than :data:`COST_WARNING_DB`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from snrgain.physics import feedline as phys
+
+COST_WARNING_DB = 1.0
+"""A feed line that costs more SNR gain than this [dB] is named in a notice."""
+QUIET_BELOW_DB = 20.0
+"""How far below the antenna's own pickup the reported choke puts the feed line's [dB]."""
+CAUTIONS = (
+    "A feed line is a path for lightning and static into the house: ground its shield where it enters (a ground "
+    "block at the entry, bonded to the station's and the electrical service's grounds as the local electrical code "
+    "requires), and disconnect it when storms are near.",
+    "Separate grounds (the antenna's rod, the station's) must be bonded as the local electrical code requires; a "
+    "common-mode choke or an isolation transformer breaks the radio-frequency path, not the safety bond.",
+    "A buried feed line: call before you dig (buried utilities), and use cable rated for burial.",
+)
+
+
+@dataclass(frozen=True)
+class Prepared:
+    """The feed lines of a set of antennas at one frequency: ``lines`` k -> (FeedLine, Coupling) for the antennas
+    that have one, ``powers`` placed source name -> (antennas,) the power each feed line delivers from it,
+    ``reference_powers`` name -> the reference antenna's own power from it, and the ``ground`` they were worked on."""
+
+    lines: dict
+    powers: dict
+    reference_powers: dict
+    ground: object
+
+
+@dataclass(frozen=True)
+class FeedLineTemps:
+    """What the feed lines add: ``prepared``, and ``by_component`` (components, antennas, months, hours) [K], the
+    feed lines' own part of each antenna's temperature (zero for antennas without one)."""
+
+    prepared: Prepared
+    by_component: np.ndarray
+
+
+def antenna_loads(antenna, freq_hz: float) -> tuple[float, complex, float]:
+    """(feed ground rod, the antenna's own loop Z_in + Z_load, the receiver's load through the transformer) [ohm];
+    ValueError for an antenna without a feed ground."""
+    rod = getattr(antenna, "feed_rod_ohm", None)
+    if rod is None or not hasattr(antenna, "feed_point_impedance") or not hasattr(antenna, "receiver_load_ohm"):
+        raise ValueError(
+            "the feed line's coupling is modelled through the antenna's feed ground rod and transformer (the long "
+            f"wires); a {antenna.family} has neither"
+        )
+    load = float(antenna.receiver_load_ohm(freq_hz))
+    z_in = complex(antenna.feed_point_impedance(freq_hz)) - rod
+    return float(rod), z_in + load, load
+
+
+def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
+    """The couplings of every antenna with a feed line (``sc.feed_lines``, by name, its route starting where the
+    antenna stands) and their pickup of each placed source; ``powers``: the antennas' own (snrgain.model.placed.pickup),
+    whose reference entry scales the feed lines'.  None when no antenna has one."""
+    from snrgain.model import placed
+
+    feeds = getattr(sc, "feed_lines", None) or {}
+    if not any(a.name in feeds for a in antennas):
+        return None
+    ground = sc.site.ground if ground is None else ground
+    f = sc.freq_hz
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    out = {}
+    for k, a in enumerate(antennas):
+        fl = feeds.get(a.name)
+        if fl is None or k == 0:
+            continue
+        start = tuple(float(v) for v in placed.antenna_point(a, ref_m))
+        if fl.start_m != start:
+            from dataclasses import replace
+
+            fl = replace(fl, start_m=start)
+        rod, loop, load = antenna_loads(a, f)
+        out[k] = (fl, phys.coupling(fl, f, ground, rod_ohm=rod, loop_ohm=loop, load_ohm=load))
+    fl_powers = {}
+    for src in (s for s in sc.noise.local if s.position_m is not None):
+        p = np.zeros(len(antennas))
+        for k, (fl, c) in out.items():
+            for kind, _ in placed.dipoles(src):
+
+                def field(pts, heights, kind=kind, src=src):
+                    return placed.field_vector(src, pts, heights, f, ground, kind=kind)
+
+                i = phys.field_current(fl, c, f, field, closest_m=_closest(fl, src))
+                e = _port(f, i, c.load_ohm)
+                p[k] += abs(e) ** 2
+        fl_powers[src.name] = p
+    return Prepared(out, fl_powers, {n: float(p[0]) for n, p in powers.items()}, ground)
+
+
+def _port(freq_hz: float, current: complex, load_ohm: float) -> complex:
+    from snrgain.antennas.longwire import port_response
+
+    return complex(port_response(freq_hz, np.array([current]), load_ohm=load_ohm, elevation_rad=np.array([0.0]))[0])
+
+
+def _closest(fl: phys.FeedLine, src) -> float:
+    """The closest approach of a source to the run [m], its height included."""
+    a, b = np.asarray(fl.start_m), np.asarray(fl.end_m)
+    p = np.asarray(src.position_m, dtype=float)
+    t = np.clip(np.dot(p - a, b - a) / max(np.dot(b - a, b - a), 1e-12), 0.0, 1.0)
+    return float(np.hypot(np.linalg.norm(p - (a + t * (b - a))), src.height_m - fl.wire_height_m))
+
+
+def shares_with(prep: Prepared | None, shares: dict) -> dict:
+    """Each placed source's shares (:func:`snrgain.model.placed.pickup`) with the feed lines' power added: the share
+    is P / P_ref times the source's own scale, so the feed line's power adds share_ref / P_ref times it."""
+    if prep is None:
+        return shares
+    return {name: s + (s[0] / prep.reference_powers[name]) * prep.powers[name] for name, s in shares.items()}
+
+
+def gains(prep: Prepared, sc, reference_gains):
+    """The gains the integrator takes the feed lines' sky part through (snrgain.model.snr.Gains): the reference's
+    first (it carries the placed sources, which :func:`shares_with` gives the feed lines instead), then each feed
+    line's "gain" into its antenna's receiver (:func:`snrgain.physics.feedline.sky_gain`), in the order of
+    ``sorted(prep.lines)``; with :func:`no_pickup` as the placed sources' shares."""
+    from snrgain.model import snr
+
+    f, ground = sc.freq_hz, prep.ground
+    caches = [reference_gains.caches[0]]
+    for k in sorted(prep.lines):
+        fl, c = prep.lines[k]
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: phys.sky_gain(fl, c, f, az, el, ground)))
+    return snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches)))
+
+
+def no_pickup(prep: Prepared) -> dict:
+    """Placed sources' shares for :func:`gains`: none (the feed lines take theirs through :func:`shares_with`)."""
+    return {n: np.zeros(len(prep.lines) + 1) for n in prep.powers}
+
+
+def added(prep: Prepared | None, temps, part, skies):
+    """(the antennas' temperatures with the feed lines' sky part added, FeedLineTemps or None).  ``temps`` come from
+    the integrator with :func:`shares_with`'s shares (placed sources already hold the feed lines); ``part`` is the
+    integrator's product of :func:`gains` (components, 1 + feed lines, months, hours)."""
+    from snrgain.model import snr
+
+    if prep is None:
+        return temps, None
+    by = np.zeros_like(temps.by_component)
+    by[:, sorted(prep.lines)] = part.by_component[:, 1:]
+    sky = by.copy()
+    for name in prep.powers:  # the placed rows: the reference's temperature times P_fl / P_ref
+        r = skies.names.index(name)
+        by[r] = temps.by_component[r, 0][None] / prep.reference_powers[name] * prep.powers[name][:, None, None]
+    total = temps.by_component + sky
+    return snr.Temperatures(total, total.sum(axis=0)), FeedLineTemps(prep, by)
+
+
+def summary(sc, nominal, k: int) -> dict | None:
+    """The feed line of antenna ``k`` of ``nominal`` (snrgain.model.products.Products) for its build sheet: its
+    share of the noise [dB] (median and worst over the hours listened), the SNR gain it costs per target [dB], the
+    choke resistance [ohm] that brings it :data:`QUIET_BELOW_DB` below the antenna's own pickup, and the cautions;
+    None without a feed line."""
+    from snrgain.model.products import snr_gains, target_masks, target_statistic
+
+    fl_t = getattr(nominal, "feed_lines", None)
+    if fl_t is None or k not in fl_t.prepared.lines:
+        return None
+    fl, c = fl_t.prepared.lines[k]
+    mine = fl_t.by_component[:, k].sum(axis=0)  # (months, hours)
+    total = nominal.temps.total[k]
+    own = np.maximum(total - mine, 1e-30)
+    listened = np.any(target_masks(sc), axis=0)
+    share_db = 10 * np.log10(np.maximum(mine, 1e-30) / total)
+    t_chain = sc.chains[k].temperature_k
+    g_with = snr_gains(sc, nominal)[k]
+    g_without = g_with + 10 * np.log10((total + t_chain) / (own + t_chain))[None]
+    cost = target_statistic(sc, g_without[None])[0] - target_statistic(sc, g_with[None])[0]
+    ratio = float(np.max((mine / own)[listened])) if np.any(listened) else float(np.max(mine / own))
+    choke = phys.choke_for_ratio(fl, c, sc.freq_hz, ratio * 10 ** (QUIET_BELOW_DB / 10))
+    return {
+        "route_m": [list(fl.start_m), list(fl.end_m)],
+        "length_m": fl.length_m,
+        "height_m": fl.height_m,
+        "buried": fl.buried,
+        "choke_ohm": fl.choke_ohm,
+        "isolation": fl.isolation,
+        "station_ground_ohm": fl.station_ground_ohm,
+        "shield_z0_ohm": float(abs(c.line.z0)),
+        "noise_share_db": float(np.median(share_db[listened])) if np.any(listened) else float(np.median(share_db)),
+        "noise_share_worst_db": float(np.max(share_db[listened])) if np.any(listened) else float(np.max(share_db)),
+        "snr_gain_cost_db": [float(x) for x in cost],
+        "choke_for_quiet_ohm": choke,
+        "quiet_below_db": QUIET_BELOW_DB,
+        "cautions": list(CAUTIONS),
+    }
+
+
+def notices(results) -> list:
+    """``feed-line-cost`` for each antenna whose feed line costs more than :data:`COST_WARNING_DB` of SNR gain
+    toward some target (values: cost_db, the worst target's; noise_share_db; choke_ohm, the choke that quiets it)."""
+    from snrgain.model.notices import Notice
+
+    out = []
+    for r in results:
+        fl = (r.build or {}).get("feed_line")
+        if not fl:
+            continue
+        costs = [c for c in fl["snr_gain_cost_db"] if np.isfinite(c)]
+        if costs and max(costs) > COST_WARNING_DB:
+            out.append(
+                Notice(
+                    "feed-line-cost",
+                    r.name,
+                    {
+                        "cost_db": max(costs),
+                        "noise_share_db": fl["noise_share_db"],
+                        "choke_ohm": fl["choke_for_quiet_ohm"],
+                        "quiet_below_db": fl["quiet_below_db"],
+                    },
+                )
+            )
+    return out
