@@ -12,19 +12,18 @@ import snrgain
 from snrgain.antennas import from_spec
 from snrgain.errors import ScenarioError
 from snrgain.model import placed
-from snrgain.model.feedline import antenna_loads
+from snrgain.model.feedline import antenna_loads, port_amplitude
 from snrgain.physics import feedline as phys
 from snrgain.physics.ground import Ground
 from snrgain.sky.noise import LocalSource
 
-NEC = json.loads((Path(__file__).parent / "nec" / "feedline.json").read_text())
-CASE = NEC["case"]
+NEC_CASES = json.loads((Path(__file__).parent / "nec" / "feedline.json").read_text())["cases"]
+CASE = NEC_CASES[0]["case"]
 F = CASE["freq_mhz"] * 1e6
 GROUND = Ground(CASE["conductivity_s_per_m"], CASE["permittivity"], "nec case")
 
 
-def _beverage():
-    c = CASE
+def _beverage(c=CASE):
     return from_spec(
         {
             "family": "beverage",
@@ -43,8 +42,7 @@ def _beverage():
     )
 
 
-def _shield(choke=None, isolation="shared-ground"):
-    c = CASE
+def _shield(choke=None, isolation="shared-ground", c=CASE):
     return phys.FeedLine(
         (0.0, 0.0),
         (0.0, -c["shield_length_m"]),
@@ -61,42 +59,70 @@ def _source(x, y, height=CASE["source_height_m"]):
     return LocalSource("s", 0.0, float(np.radians(5.0)), 0.0, 60.0, position_m=(x, y), height_m=height)
 
 
-def _source_power(bev, fl, src):
-    """(the Beverage's own power from a placed source, its feed line's), in the units of placed.received_power."""
+def _amplitudes(bev, fl, src, c=None):
+    """(the Beverage's own amplitude from a placed source, its feed line's), in the units of placed.received_power
+    (their phasor sum is what the receiver gets)."""
     rod, loop, load = antenna_loads(bev, F)
-    c = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    cp = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
 
     def field(pts, h):
         return placed.field_vector(src, pts, h, F, GROUND, kind="vertical")
 
-    closest = float(np.hypot(src.position_m[0], src.height_m - fl.wire_height_m))
-    i = phys.field_current(fl, c, F, field, closest_m=closest)
-    from snrgain.model.feedline import _port
-
-    return placed.received_power(bev, src, F, (0.0, 0.0), GROUND), abs(_port(F, i, load)) ** 2
+    i = phys.field_current(fl, cp, F, field, closest_m=10.0)
+    a = placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND)[0]
+    return a, port_amplitude(F, i, load)
 
 
 # -- the physics ---------------------------------------------------------------------------------------------------
 
 
-def test_nec_agrees_on_the_loss():
-    # tests/nec/make_feedline.py: nec2c (fbar fix) over eps_r 13, 5 mS/m at 1.83 MHz, the Beverage with its shield
-    # 150 m to the station and a source 10 m from the shield's middle.  The SNR the shield costs with the source as
-    # the only noise: NEC 7.0 dB unchoked and 0.5 dB through a 5000 ohm choke; the model 4.8 and 0.02 dB (measured).
-    # The model's shield current at the antenna end matches NEC's within 0.5 dB (19.6 against 18.5 times the
-    # Beverage's own load current); the rest is the share reaching the load (NEC's 1.3 dB more, and in phase with
-    # the Beverage's own, where the model adds powers) and the signal the shield adds (NEC +0.4 dB, neglected).
-    bev = _beverage()
-    src = _source(*CASE["source_m"])
-    assert NEC["front_to_back_v_db"] > 6  # the deck's plane wave arrives from where the Beverage points
-    for case, choke in (("shield", None), ("choked", CASE["choke_ohm"])):
-        p_ant, p_fl = _source_power(bev, _shield(choke), src)
-        model = 10 * np.log10((p_ant + p_fl) / p_ant)
-        assert model == pytest.approx(NEC["loss_db"][case], abs=3.0), case
-    assert NEC["loss_db"]["shield"] > 3.0 > 1.0 > NEC["loss_db"]["choked"]
+def _model_loss(c: dict, choke) -> float:
+    """The SNR [dB] the shield costs with the source as the only noise: the noise's rise (the signal is unchanged)."""
+    a, b = _amplitudes(_beverage(c), _shield(choke, c=c), _source(*c["source_m"], height=c["source_height_m"]))
+    return float(10 * np.log10(abs(a + b) ** 2 / abs(a) ** 2))
+
+
+BY_NAME = {n["case"]["name"]: n for n in NEC_CASES}
+
+
+@pytest.mark.parametrize("name", ["s150-rod100", "s60-rod100"])
+def test_nec_agrees_on_the_loss(name):
+    # tests/nec/make_feedline.py: nec2c (fbar fix) over eps_r 13, 5 mS/m at 1.83 MHz: a 200 m Beverage on a
+    # 100 ohm feed rod with its RG-6 shield 150 or 60 m at 1 m to a 25 ohm station ground, a small vertical source
+    # 10 m from the shield's middle.  The SNR the shield costs with the source as the only noise, within 3 dB of
+    # NEC's (the issue's tolerance).  Measured (model / NEC, dB): 150 m 4.9 / 7.0, 60 m -0.5 / +0.2 (the two paths
+    # nearly cancel there: NEC's feed-line current in the load lies 153 deg from the Beverage's own, the model's
+    # 164 deg).
+    nec = BY_NAME[name]
+    assert nec["front_to_back_v_db"] > 6  # the deck's plane wave arrives from where the Beverage points
+    assert _model_loss(nec["case"], None) == pytest.approx(nec["loss_db"]["shield"], abs=3.0)
+
+
+@pytest.mark.parametrize("name", ["s150-rod100", "s60-rod100", "s150-rod20", "s100-rod50-end"])
+def test_a_choke_takes_the_loss_away_in_nec_and_the_model(name):
+    # A 5000 ohm choke: NEC 0.5, 0.1, 0.2, -0.5 dB; the model 0.0, -0.4, 0.0, -1.5 dB (measured).
+    nec = BY_NAME[name]
+    model = _model_loss(nec["case"], nec["case"]["choke_ohm"])
+    assert abs(nec["loss_db"]["choked"]) < 1.0 and abs(model) < 2.0
+    assert model == pytest.approx(nec["loss_db"]["choked"], abs=1.5)
+
+
+@pytest.mark.parametrize("name", ["s150-rod20", "s100-rod50-end"])
+def test_known_limit_low_rods_read_low(name):
+    # Short of the issue's 3 dB: on a 20 or 50 ohm feed rod NEC's shield couples more into the load than the
+    # rod's current divider gives (its share per ampere of shield current 0.037 and 0.057 against the model's 0.016
+    # and 0.040), and the model reads the loss 3.5-3.8 dB low (measured: 0.8 / 4.5 and 1.8 / 5.4 dB).  NEC's own
+    # answer moves with its ground junction: the shield joined to the feed lead 0.25 m up instead of 1 m gives 9.6
+    # and 9.5 dB on the 20 and 100 ohm rods (cases "-low"; a 490 ohm junction de-embedded, where DESIGN.md finds
+    # NEC uncertain by several dB).  This test keeps the shortfall from growing.
+    nec = BY_NAME[name]
+    gap = nec["loss_db"]["shield"] - _model_loss(nec["case"], None)
+    assert 0.0 < gap < 4.5
 
 
 def test_shield_current_matches_nec():
+    # The common-mode current leaving the antenna end, over the Beverage's own load current, as NEC gives it.
+    nec = NEC_CASES[0]
     bev = _beverage()
     src = _source(*CASE["source_m"])
     rod, loop, load = antenna_loads(bev, F)
@@ -107,9 +133,9 @@ def test_shield_current_matches_nec():
     )
     i_ant = placed.wire_feed_current(bev, src, F, np.array([0.0, 0.0]), GROUND, kind="vertical")
     model = abs(i_load / c.divider) / abs(i_ant)
-    runs = NEC["runs"]
-    nec = abs(complex(*runs["shield"]["shield_current_at_antenna"])) / abs(complex(*runs["alone"]["source"]))
-    assert 20 * np.log10(model / nec) == pytest.approx(0.0, abs=1.0)
+    runs = nec["runs"]
+    ratio = abs(complex(*runs["shield"]["shield_current_at_antenna"])) / abs(complex(*runs["alone"]["source"]))
+    assert 20 * np.log10(model / ratio) == pytest.approx(0.0, abs=1.0)
 
 
 def test_far_source_is_the_sky_pattern():
@@ -125,11 +151,12 @@ def test_far_source_is_the_sky_pattern():
         i = phys.field_current(
             fl, c, F, lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"), closest_m=30e3
         )
-        from snrgain.model.feedline import _port
 
         e = abs(placed.source_field(src, [[0.0, -75.0]], F, GROUND)[0][0]) ** 2
         g = phys.sky_gain(fl, c, F, np.array([az]), np.array([src.elevation_rad]), GROUND)[0]
-        assert 10 * np.log10(abs(_port(F, i, load)) ** 2 / e) == pytest.approx(10 * np.log10(g), abs=0.5), az_deg
+        assert 10 * np.log10(abs(port_amplitude(F, i, load)) ** 2 / e) == pytest.approx(10 * np.log10(g), abs=0.5), (
+            az_deg
+        )
 
 
 def test_a_choke_scales_every_direction_alike_and_the_reported_one_gives_its_reduction():
@@ -235,8 +262,8 @@ def _run(feed="", site=""):
 
 def test_an_unchoked_feed_line_costs_snr_and_the_reported_choke_restores_it():
     # The Beverage's shield passes 10 m from an S9 source (read on the reference); the S9 source is the loudest
-    # noise there.  Measured: 15.9 dB without a feed line, 12.0 dB with it unchoked (cost 3.9 dB, noise share
-    # -2.3 dB), 15.9 dB through the reported choke (2.9 kohm).
+    # noise there.  Measured: 15.9 dB without a feed line, 11.7 dB with it unchoked (cost 4.3 dB, noise share
+    # -2.1 dB), 15.9 dB through the reported choke (3.1 kohm; its share then -20.0 dB).
     _, none = _run()
     r, bare = _run(FEED.format(extra=""))
     fl = bare["bev"].build["feed_line"]

@@ -41,22 +41,27 @@ CAUTIONS = (
 @dataclass(frozen=True)
 class Prepared:
     """The feed lines of a set of antennas at one frequency: ``lines`` k -> (FeedLine, Coupling) for the antennas
-    that have one, ``powers`` placed source name -> (antennas,) the power each feed line delivers from it,
-    ``reference_powers`` name -> the reference antenna's own power from it, and the ``ground`` they were worked on."""
+    that have one; per placed source name -> (antennas,): ``powers`` the power each feed line delivers from it
+    alone, ``effects`` what it changes of the antenna's power, |a + b|^2 - |a|^2 with a the antenna's own amplitude
+    and b the feed line's (they add as phasors; negative where they cancel); ``reference_powers`` name -> the
+    reference antenna's own power from it; and the ``ground`` they were worked on."""
 
     lines: dict
     powers: dict
+    effects: dict
     reference_powers: dict
     ground: object
 
 
 @dataclass(frozen=True)
 class FeedLineTemps:
-    """What the feed lines add: ``prepared``, and ``by_component`` (components, antennas, months, hours) [K], the
-    feed lines' own part of each antenna's temperature (zero for antennas without one)."""
+    """What the feed lines add (components, antennas, months, hours) [K], zero for antennas without one:
+    ``by_component`` the feed line's own pickup (its share of the noise; what a choke lowers), ``effect`` what it
+    changes of the antenna's temperature (the same over the sky; for a placed source the phasor sum's change)."""
 
     prepared: Prepared
     by_component: np.ndarray
+    effect: np.ndarray
 
 
 def antenna_loads(antenna, freq_hz: float) -> tuple[float, complex, float]:
@@ -97,23 +102,26 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
             fl = replace(fl, start_m=start)
         rod, loop, load = antenna_loads(a, f)
         out[k] = (fl, phys.coupling(fl, f, ground, rod_ohm=rod, loop_ohm=loop, load_ohm=load))
-    fl_powers = {}
+    fl_powers, effects = {}, {}
     for src in (s for s in sc.noise.local if s.position_m is not None):
-        p = np.zeros(len(antennas))
+        p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for k, (fl, c) in out.items():
             for kind, _ in placed.dipoles(src):
 
                 def field(pts, heights, kind=kind, src=src):
                     return placed.field_vector(src, pts, heights, f, ground, kind=kind)
 
-                i = phys.field_current(fl, c, f, field, closest_m=_closest(fl, src))
-                e = _port(f, i, c.load_ohm)
-                p[k] += abs(e) ** 2
-        fl_powers[src.name] = p
-    return Prepared(out, fl_powers, {n: float(p[0]) for n, p in powers.items()}, ground)
+                b = port_amplitude(f, phys.field_current(fl, c, f, field, closest_m=_closest(fl, src)), c.load_ohm)
+                a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
+                p[k] += abs(b) ** 2
+                d[k] += abs(a + b) ** 2 - abs(a) ** 2
+        fl_powers[src.name], effects[src.name] = p, d
+    return Prepared(out, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
 
 
-def _port(freq_hz: float, current: complex, load_ohm: float) -> complex:
+def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex:
+    """The amplitude a current [A] in the receiver's load delivers, in the units of a realized gain's square root
+    (snrgain.antennas.longwire.port_response)."""
     from snrgain.antennas.longwire import port_response
 
     return complex(port_response(freq_hz, np.array([current]), load_ohm=load_ohm, elevation_rad=np.array([0.0]))[0])
@@ -129,10 +137,10 @@ def _closest(fl: phys.FeedLine, src) -> float:
 
 def shares_with(prep: Prepared | None, shares: dict) -> dict:
     """Each placed source's shares (:func:`snrgain.model.placed.pickup`) with the feed lines' power added: the share
-    is P / P_ref times the source's own scale, so the feed line's power adds share_ref / P_ref times it."""
+    is P / P_ref times the source's own scale, so what the feed line changes of P adds share_ref / P_ref times it."""
     if prep is None:
         return shares
-    return {name: s + (s[0] / prep.reference_powers[name]) * prep.powers[name] for name, s in shares.items()}
+    return {name: s + (s[0] / prep.reference_powers[name]) * prep.effects[name] for name, s in shares.items()}
 
 
 def gains(prep: Prepared, sc, reference_gains):
@@ -165,12 +173,14 @@ def added(prep: Prepared | None, temps, part, skies):
         return temps, None
     by = np.zeros_like(temps.by_component)
     by[:, sorted(prep.lines)] = part.by_component[:, 1:]
-    sky = by.copy()
+    sky, effect = by.copy(), by.copy()
     for name in prep.powers:  # the placed rows: the reference's temperature times P_fl / P_ref
         r = skies.names.index(name)
-        by[r] = temps.by_component[r, 0][None] / prep.reference_powers[name] * prep.powers[name][:, None, None]
+        t_ref = temps.by_component[r, 0][None] / prep.reference_powers[name]
+        by[r] = t_ref * prep.powers[name][:, None, None]
+        effect[r] = t_ref * prep.effects[name][:, None, None]
     total = temps.by_component + sky
-    return snr.Temperatures(total, total.sum(axis=0)), FeedLineTemps(prep, by)
+    return snr.Temperatures(total, total.sum(axis=0)), FeedLineTemps(prep, by, effect)
 
 
 def summary(sc, nominal, k: int) -> dict | None:
@@ -184,11 +194,11 @@ def summary(sc, nominal, k: int) -> dict | None:
     if fl_t is None or k not in fl_t.prepared.lines:
         return None
     fl, c = fl_t.prepared.lines[k]
-    mine = fl_t.by_component[:, k].sum(axis=0)  # (months, hours)
+    mine = fl_t.by_component[:, k].sum(axis=0)  # (months, hours): the feed line's own pickup
     total = nominal.temps.total[k]
-    own = np.maximum(total - mine, 1e-30)
+    own = np.maximum(total - fl_t.effect[:, k].sum(axis=0), 1e-30)  # the antenna's own: without the feed line
     listened = np.any(target_masks(sc), axis=0)
-    share_db = 10 * np.log10(np.maximum(mine, 1e-30) / total)
+    share_db = 10 * np.log10(np.maximum(mine, 1e-30) / (own + mine))
     t_chain = sc.chains[k].temperature_k
     g_with = snr_gains(sc, nominal)[k]
     g_without = g_with + 10 * np.log10((total + t_chain) / (own + t_chain))[None]

@@ -38,18 +38,22 @@ impedance toward the station (its far end in Z_S) and V_oc the open-circuit volt
 Z_th do not depend on Z_A, so a choke scales every direction's pickup by the same |Z_th + Z_A0|^2 /
 |Z_th + Z_A|^2 (:func:`choke_for_ratio` solves for the resistance that gives a wanted reduction).
 
-The feed line's noise adds to the antenna's in power: over a diffuse sky the two paths' relative phase turns
-from direction to direction; for one placed source the coherent sum of two equal paths lies anywhere from 3 dB
-above the power sum to nothing, and with one path 10 dB below the other within +2.0/-3.7 dB of it.  The signal
-the shield picks up toward a target is neglected (it reaches the load through the same current divider).
+A placed source drives the antenna and its feed line together: their currents in the load add as phasors
+(:func:`field_current` keeps the antenna's sign).  Over the sky the feed line's noise adds to the antenna's in
+power (a diffuse sky's directions are incoherent, and the two paths' relative phase turns from direction to
+direction).  The signal the shield picks up toward a target is neglected (it reaches the load through the same
+current divider; NEC gives it +0.1 to +0.6 dB).
 
-Independent check (tests/nec/make_feedline.py, nec2c with the fbar() fix over eps_r 13, 5 mS/m at 1.83 MHz; a 200 m
-Beverage at 2 m on a 100 ohm feed rod, an RG-6 shield 150 m at 1 m to a 25 ohm station ground, a small vertical
-source 10 m from the shield's middle): the shield's current at the antenna end is within 0.5 dB of NEC's; the SNR
-the shield costs with the source alone is 4.8 dB here against NEC's 7.0 dB unchoked, 0.02 against 0.5 dB through a 5
-kohm choke. NEC's share reaching the load is 1.3 dB larger and adds partly in phase (66 deg) with the Beverage's
-own, and NEC's shield still couples to the antenna around the choke (through the field); the model reads the loss
-low by up to about 2.5 dB.
+Independent check (tests/nec/make_feedline.py: nec2c with the fbar() fix over eps_r 13, 5 mS/m at 1.83 MHz; a
+200 m Beverage at 2 m, an RG-6 shield 60-150 m at 1 m to a 25 ohm station ground joining the feed lead 1 m up, a
+small vertical source 10 m from the shield).  The shield's current at the antenna end is within 0.5-1.7 dB of
+NEC's, and the phase of its share in the load within 11-37 deg.  The SNR the shield costs with the source alone
+(model / NEC): on a 100 ohm feed rod 4.9 / 7.0 dB (150 m) and -0.5 / +0.2 dB (60 m: the two paths nearly
+cancel); on a 20 ohm rod 0.8 / 4.5 dB and on a 50 ohm rod 1.8 / 5.4 dB, where NEC's share per ampere of shield
+current (0.037, 0.057) exceeds the rod's current divider (0.016, 0.040): the model reads low there by 3.5-3.8 dB,
+beyond the 3 dB it aims at.  NEC's answer itself moves with its ground junction (the shield joined 0.25 m up:
+9.5-9.6 dB on either rod, a 490 ohm junction de-embedded, where NEC is uncertain by several dB, DESIGN.md).  A
+5 kohm choke: 0.0 to -1.5 dB against NEC's -0.5 to +0.5 dB.
 
 Values from memory (not checked against a datasheet; snrgain's assumption): the cables' jacket and braid
 diameters in :data:`CABLES`; an isolation transformer's interwinding capacitance of 20 pF
@@ -231,7 +235,7 @@ def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevati
         drive_h=-w.sin_dphi * f_h[w.inv],
         v_end=lead,
     )
-    return tuple(port_response(freq_hz, i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
+    return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
 
 
 def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
@@ -257,7 +261,11 @@ def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m
     """The current [A] through the receiver's load from an incident field given as ``field(points (N, 2), heights
     (N,)) -> (N, 3)`` [east, north, up] (a placed source's, :func:`snrgain.model.placed.field_vector`): the EMF
     along the run (trapezoid rule on :func:`route_samples`) and up and down its leads, through the line's
-    transfer function to the antenna end, times the current divider."""
+    transfer function to the antenna end, times the current divider.
+
+    Its sign is the antenna's own feed current's (snrgain.antennas.longwire: up the feed lead through the load):
+    I_A leaves the junction up into the shield, so the share that comes through the antenna's loop runs down
+    through the load, -I_A Z_rod / (Z_rod + Z_loop); the two add as phasors where one source drives both."""
     L, g, z0 = fl.length_m, c.line.gamma, c.line.z0
     b = fl.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
@@ -277,4 +285,4 @@ def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m
         ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
         lead = (ez[:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
         current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
-    return complex(current * c.divider)
+    return complex(-current * c.divider)
