@@ -107,16 +107,64 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for k, (fl, c) in out.items():
             for kind, _ in placed.dipoles(src):
-
-                def field(pts, heights, kind=kind, src=src):
-                    return placed.field_vector(src, pts, heights, f, ground, kind=kind)
-
-                b = port_amplitude(f, phys.field_current(fl, c, f, field, closest_m=_closest(fl, src)), c.load_ohm)
-                a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
+                b = port_amplitude(f, phys.emf_current(fl, c, *_route_emf(fl, src, kind, f, ground)), c.load_ohm)
+                a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground)
                 p[k] += abs(b) ** 2
                 d[k] += abs(a + b) ** 2 - abs(a) ** 2
         fl_powers[src.name], effects[src.name] = p, d
     return Prepared(out, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
+
+
+_MEMO: dict = {}
+"""What does not change between calls on the same feed line or antenna (a termination search, the spreads): the
+EMFs along a route from a source, an antenna's own amplitude from it.  Bounded (cleared past MEMO_SIZE)."""
+MEMO_SIZE = 4096
+
+
+def _memo(key, make):
+    hit = _MEMO.get(key)
+    if hit is None:
+        if len(_MEMO) > MEMO_SIZE:
+            _MEMO.clear()
+        hit = _MEMO[key] = make()
+    return hit
+
+
+def _source_key(src, kind, freq_hz, ground):
+    g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
+    where = (src.position_m, src.height_m, src.polarisation, getattr(src, "orientation_rad", None))
+    return (where, kind, float(freq_hz), g)
+
+
+def _route_emf(fl, src, kind, freq_hz, ground):
+    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source."""
+
+    def field(pts, heights):
+        return placed_field(src, pts, heights, freq_hz, ground, kind)
+
+    key = ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+    return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
+
+
+def placed_field(src, pts, heights, freq_hz, ground, kind):
+    from snrgain.model import placed
+
+    return placed.field_vector(src, pts, heights, freq_hz, ground, kind=kind)
+
+
+def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
+    """The antenna's own amplitude from a placed source's dipole (snrgain.model.placed.received_amplitudes, its
+    first: a long wire's), memoised by the antenna's parameters (its termination and place among them)."""
+    from snrgain.model import placed
+
+    key = (
+        "own",
+        type(antenna).__name__,
+        antenna.params.model_dump_json(),
+        tuple(reference_m),
+        _source_key(src, kind, freq_hz, ground),
+    )
+    return _memo(key, lambda: placed.received_amplitudes(antenna, src, freq_hz, reference_m, ground, kind=kind)[0])
 
 
 def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex:

@@ -90,6 +90,8 @@ INTERWINDING_F = 20e-12
 BURIED_DEPTH_M = 0.15
 """The depth of a buried feed line when none is given [m] (a spade's depth: common practice)."""
 ISOLATIONS = ("shared-ground", "transformer")
+_LINES: dict = {}
+"""Shield line constants already solved, by geometry, frequency and soil."""
 
 
 @dataclass(frozen=True)
@@ -160,7 +162,24 @@ class FeedLine:
         return z
 
     def line(self, freq_hz: float, ground) -> lines.LineConstants:
-        """The shield's common-mode line over ``ground``."""
+        """The shield's common-mode line over ``ground`` (memoised: the exact mode takes a root search)."""
+        key = (
+            self.buried,
+            self.height_m,
+            self.depth_m,
+            self.braid_radius_m,
+            self.jacket_radius_m,
+            float(freq_hz),
+            None if ground is None else (ground.conductivity_s_per_m, ground.permittivity),
+        )
+        hit = _LINES.get(key)
+        if hit is None:
+            if len(_LINES) > 1024:
+                _LINES.clear()
+            hit = _LINES[key] = self._line(freq_hz, ground)
+        return hit
+
+    def _line(self, freq_hz: float, ground) -> lines.LineConstants:
         if self.buried:
             if ground is None:
                 raise ValueError("a buried feed line needs a real ground (conductivity and permittivity)")
@@ -257,6 +276,38 @@ def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
     return np.linspace(0.0, fl.length_m, n)
 
 
+def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
+    """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
+    incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
+    :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads."""
+    b = fl.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    x = route_samples(fl, freq_hz, closest_m)
+    pts = np.asarray(fl.start_m, dtype=float)[None, :] + x[:, None] * u[None, :]
+    e = field(pts, np.full(len(x), fl.wire_height_m))
+    emf = e[:, 0] * u[0] + e[:, 1] * u[1]
+    lead = np.zeros(2, dtype=complex)
+    if not fl.buried:
+        h = fl.wire_height_m
+        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        zs = (t + 1) * h / 2
+        ends = np.array([pts[0], pts[-1]])
+        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
+        lead = (ez[:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
+    return x, emf, lead
+
+
+def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
+    """The current [A] through the receiver's load from :func:`route_emf`'s EMFs (:func:`field_current`)."""
+    L, g, z0 = fl.length_m, c.line.gamma, c.line.z0
+    z_a, z_s = c.z_end, fl.station_ground_ohm
+    d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
+    transfer = (z0 * np.cosh(g * (L - x)) + z_s * np.sinh(g * (L - x))) / d
+    current = np.trapezoid(emf * transfer, x)
+    current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
+    return complex(-current * c.divider)
+
+
 def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m: float) -> complex:
     """The current [A] through the receiver's load from an incident field given as ``field(points (N, 2), heights
     (N,)) -> (N, 3)`` [east, north, up] (a placed source's, :func:`snrgain.model.placed.field_vector`): the EMF
@@ -266,23 +317,4 @@ def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m
     Its sign is the antenna's own feed current's (snrgain.antennas.longwire: up the feed lead through the load):
     I_A leaves the junction up into the shield, so the share that comes through the antenna's loop runs down
     through the load, -I_A Z_rod / (Z_rod + Z_loop); the two add as phasors where one source drives both."""
-    L, g, z0 = fl.length_m, c.line.gamma, c.line.z0
-    b = fl.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    x = route_samples(fl, freq_hz, closest_m)
-    pts = np.asarray(fl.start_m, dtype=float)[None, :] + x[:, None] * u[None, :]
-    e = field(pts, np.full(len(x), fl.wire_height_m))
-    emf = e[:, 0] * u[0] + e[:, 1] * u[1]
-    z_a, z_s = c.z_end, fl.station_ground_ohm
-    d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
-    transfer = (z0 * np.cosh(g * (L - x)) + z_s * np.sinh(g * (L - x))) / d
-    current = np.trapezoid(emf * transfer, x)
-    if not fl.buried:
-        h = fl.wire_height_m
-        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
-        zs = (t + 1) * h / 2
-        ends = np.array([pts[0], pts[-1]])
-        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
-        lead = (ez[:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
-        current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
-    return complex(-current * c.divider)
+    return emf_current(fl, c, *route_emf(fl, freq_hz, field, closest_m=closest_m))
