@@ -47,13 +47,13 @@ current divider; NEC gives it +0.1 to +0.6 dB).
 Independent check (tests/nec/make_feedline.py: nec2c with the fbar() fix over eps_r 13, 5 mS/m at 1.83 MHz; a
 200 m Beverage at 2 m, an RG-6 shield 60-150 m at 1 m to a 25 ohm station ground joining the feed lead 1 m up, a
 small vertical source 10 m from the shield).  The shield's current at the antenna end is within 0.5-1.7 dB of
-NEC's, and the phase of its share in the load within 11-37 deg.  The SNR the shield costs with the source alone
-(model / NEC): on a 100 ohm feed rod 4.9 / 7.0 dB (150 m) and -0.5 / +0.2 dB (60 m: the two paths nearly
-cancel); on a 20 ohm rod 0.8 / 4.5 dB and on a 50 ohm rod 1.8 / 5.4 dB, where NEC's share per ampere of shield
-current (0.037, 0.057) exceeds the rod's current divider (0.016, 0.040): the model reads low there by 3.5-3.8 dB,
-beyond the 3 dB it aims at.  NEC's answer itself moves with its ground junction (the shield joined 0.25 m up:
-9.5-9.6 dB on either rod, a 490 ohm junction de-embedded, where NEC is uncertain by several dB, DESIGN.md).  A
-5 kohm choke: 0.0 to -1.5 dB against NEC's -0.5 to +0.5 dB.
+NEC's, and the phase of its share in the load within 11-37 deg.  The SNR the shield costs with the source alone,
+model / NEC (dB): on a 100 ohm feed rod 4.9 / 7.0 (150 m) and -0.5 / +0.2 (60 m: the two paths nearly cancel); on
+a 20 ohm rod 0.8 / 4.5, on a 50 ohm rod 1.8 / 5.4.  NEC's figure is not settled: it grows with the ground junction
+the deck de-embeds at the feed lead's foot (DESIGN.md), 4.5, 7.1, 9.4 dB on the 20 ohm rod with the lead's bottom
+metre in 1, 2, 4 segments (junction 123, 234, 496 ohm); carried back to no junction it reads 5.6, 1.5 and 1.1 dB
+on the 100, 20 and 50 ohm rods, within 1 dB of the model.  A 5 kohm choke: 0.0 to -1.5 dB against NEC's -0.5 to
++0.5 dB.
 
 Values from memory (not checked against a datasheet; snrgain's assumption): the cables' jacket and braid
 diameters in :data:`CABLES`; an isolation transformer's interwinding capacitance of 20 pF

@@ -19,8 +19,9 @@ target (bearing 45 deg, 20 deg up) in each polarization (the signal: the powers 
 load less the change of signal power.  Decks under cases/ (prefix feedline-<case>-), figures in feedline.json.
 
 CASES: a 150 m shield on a 100 ohm feed rod, a 60 m one, a 20 ohm rod, a 100 m shield with the source near the
-station; and two with the shield joining the feed lead 0.25 m up instead of 1 m (rising to its height over a
-slanted metre), which show how much NEC's answer moves with its ground junction (490 ohm de-embedded there).
+station; then NEC's own spread: the shield joining the feed lead 0.25 m up instead of 1 m (rising to its height
+over a slanted metre; "-low"), and the feed lead's bottom metre in 2 or 4 segments ("-seg2", "-seg4").  Both make
+the ground junction the deck takes out larger (234-496 ohm against 123), and NEC's loss grows with it.
 The structure spans two wavelengths: the patched engine (build_nec2c.sh, or SNRGAIN_NEC2C) runs it.
 """
 
@@ -70,6 +71,18 @@ CASES = [
     {**CASE, "name": "s100-rod50-end", "shield_length_m": 100.0, "feed_rod_ohm": 50.0, "source_m": [-10.0, -80.0]},
     {**CASE, "name": "s150-rod20-low", "feed_rod_ohm": 20.0, "junction_m": 0.25},
     {**CASE, "name": "s150-rod100-low", "junction_m": 0.25},
+    {**CASE, "name": "s150-rod20-seg2", "feed_rod_ohm": 20.0, "feed_lead_segments": 2},
+    {**CASE, "name": "s150-rod20-seg4", "feed_rod_ohm": 20.0, "feed_lead_segments": 4},
+    {**CASE, "name": "s150-rod100-seg2", "feed_lead_segments": 2},
+    {**CASE, "name": "s60-rod100-seg2", "shield_length_m": 60.0, "source_m": [10.0, -30.0], "feed_lead_segments": 2},
+    {
+        **CASE,
+        "name": "s100-rod50-end-seg2",
+        "shield_length_m": 100.0,
+        "feed_rod_ohm": 50.0,
+        "source_m": [-10.0, -80.0],
+        "feed_lead_segments": 2,
+    },
 ]
 """The base case, then a shorter shield, the project's default feed rod (20 ohm), and a source near the station end."""
 SEGMENTS_PER_WAVELENGTH = 40
@@ -92,7 +105,7 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j1: float, r_
     lines = [
         "CM Beverage with its coax shield to the station (snrgain feed-line validation case)",
         "CE",
-        f"GW 1 1 0 0 0 0 0 {zj:g} {a:g}",
+        f"GW 1 {c.get('feed_lead_segments', 1)} 0 0 0 0 0 {zj:g} {a:g}",
         f"GW 2 1 0 0 {zj:g} 0 0 {h:g} {a:g}",
         f"GW 3 {int(np.ceil(L / seg))} 0 0 {h:g} {xe:.4f} {ye:.4f} {h:g} {a:g}",
         f"GW 4 2 {xe:.4f} {ye:.4f} {h:g} {xe:.4f} {ye:.4f} 0 {a:g}",
@@ -172,10 +185,11 @@ def run_case(c: dict, work: Path, engine: str) -> dict:
     )
     zj = c.get("junction_m", c["shield_height_m"])
     r_jf = r_j1
-    if zj != 1.0:
+    nf = c.get("feed_lead_segments", 1)
+    if zj != 1.0 or nf != 1:
         r_jf = junction_ohm(
             run_nec2c(
-                stub_deck(freq_mhz=f, height_m=zj, segments=1, radius_m=c["wire_radius_m"], **ground),
+                stub_deck(freq_mhz=f, height_m=zj, segments=nf, radius_m=c["wire_radius_m"], **ground),
                 work,
                 "jf",
                 engine,
