@@ -7,13 +7,16 @@ grounds, coupled through the antenna's feed ground).  Here it meets the integrat
 - the sky: the feed line's "gain" into the receiver (:func:`snrgain.physics.feedline.sky_gain`) is integrated over
   each sky component as an antenna's gain is (:func:`snrgain.model.snr.sky_temperatures`), and added to the
   antenna's temperature from that component;
-- a placed source: the power the feed line delivers from it, in the units of :func:`snrgain.model.placed.pickup`,
-  is added to the antenna's own before its share of the source is taken (:func:`shares_with`).
+- a placed source: the feed line's amplitude from it adds as a phasor to the antenna's own (one source drives
+  both), and what that changes of the antenna's power, in the units of :func:`snrgain.model.placed.pickup`, is
+  added before the antenna's share of the source is taken (:func:`shares_with`).
 
-The two paths add in power (the physics module's docstring says when that holds).  The feed line's share of the
-noise, the SNR gain it costs and the choke resistance that brings it 20 dB below the antenna's own pickup are read
-from the products (:func:`summary`) into the antenna's build sheet, and a notice names an antenna whose feed line
-costs more than :data:`COST_WARNING_DB`.
+Over the sky the two paths add in power (the physics module's docstring says why).  The feed line's share of the
+noise (its own pickup over its own plus the antenna's), the SNR gain it costs (with and without it) and the choke
+resistance that brings its own pickup 20 dB below the antenna's at the worst hour listened are read from the
+products (:func:`summary`) into the antenna's build sheet, and a notice names an antenna whose feed line costs more
+than :data:`COST_WARNING_DB`.  Only candidates take a feed line (the site's levels are read on the reference as it
+stands), and only antennas grounded at the feed through a transformer (the long wires): :func:`antenna_loads`.
 """
 
 from __future__ import annotations
