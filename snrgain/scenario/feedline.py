@@ -85,10 +85,12 @@ def take_feed_line(spec, where: str):
         return spec, None, pydantic_problems(exc, f"{where}.{FEED_LINE_KEY}", raw)
 
 
-def resolve_feed_lines(sections: dict, antennas, wheres, site, reference_m, freq_hz: float) -> tuple[dict, list]:
+def resolve_feed_lines(
+    sections: dict, antennas, wheres, site, reference_m, freq_hz: float, station_ground_ohm: float
+) -> tuple[dict, list]:
     """name -> snrgain.physics.feedline.FeedLine for each antenna whose table gave a feed line (``sections``: where
-    -> FeedLineSection), and the problems: an antenna without a feed ground, a run shorter than 1 m, a run that
-    leaves the lot (``site.lot_m``)."""
+    -> FeedLineSection), ending at the station ground ([site] station_ground), and the problems: an antenna without
+    a feed ground, a run shorter than 1 m, a run that leaves the lot (``site.lot_m``, a resolved Site)."""
     from snrgain.model.feedline import antenna_loads
     from snrgain.model.placed import antenna_point
 
@@ -100,7 +102,7 @@ def resolve_feed_lines(sections: dict, antennas, wheres, site, reference_m, freq
         field = f"{where}.{FEED_LINE_KEY}"
         try:
             antenna_loads(ant, freq_hz)
-            fl = sec.resolved(antenna_point(ant, reference_m), site.station_ground_ohm)
+            fl = sec.resolved(antenna_point(ant, reference_m), station_ground_ohm)
         except ValueError as exc:
             problems.append((field, str(exc)))
             continue

@@ -84,6 +84,7 @@ def load(
             Site.of(model.site, length_unit),
             built.antennas[0].params.position or (0.0, 0.0),
             model.band.frequency,
+            model.site.station_ground,
         )
         problems += more
     if problems:

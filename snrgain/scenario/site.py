@@ -72,8 +72,7 @@ class SiteSection(StrictModel):
     """The detuning reactance across the vertical's base when detuned [ohm] (None: the feed open)."""
     structures: list[Structure] = Field(default_factory=list, max_length=16)
     """Nearby structures that re-radiate: towers, other verticals."""
-    station_ground: quantity("resistance", gt=0.0, le=10000.0) = 25.0
-    """The station ground's resistance to earth [ohm], where feed lines' shields end (feed_line)."""
+    station_ground: quantity("resistance", gt=0.0, le=10000.0) = 25.0  # to earth; feed lines' shields end there
     units: Literal["m", "ft"] | None = None
     """The unit lengths are shown in (terminal, report, build sheet, layout); default: the unit the file's lengths
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""
@@ -132,8 +131,6 @@ class Site:
     """The TX vertical while receiving ("resonant" or "detuned") and its detuning reactance [ohm] (None: open)."""
     structures: tuple = ()
     """Nearby structures that re-radiate (validated [site] structures entries, SI)."""
-    station_ground_ohm: float = 25.0
-    """The station ground's resistance to earth [ohm] (feed lines' shields end there)."""
 
     @classmethod
     def of(cls, site: SiteSection, length_unit: str | None = None) -> Site:
@@ -152,7 +149,6 @@ class Site:
             site.tx_state,
             site.tx_detune_reactance,
             tuple(site.structures),
-            site.station_ground,
         )
 
 
