@@ -46,7 +46,7 @@ current divider; NEC gives it +0.1 to +0.6 dB).
 
 Independent check (tests/nec/make_feedline.py: nec2c with the fbar() fix over eps_r 13, 5 mS/m at 1.83 MHz; a
 200 m Beverage at 2 m, an RG-6 shield 60-150 m at 1 m to a 25 ohm station ground joining the feed lead 1 m up, a
-small vertical source 10 m from the shield).  The shield's current at the antenna end is within 0.5-1.7 dB of
+small vertical source 10 m from the shield).  The shield's current at the antenna end is within 0.1-1.7 dB of
 NEC's, and the phase of its share in the load within 11-37 deg.  The SNR the shield costs with the source alone,
 model / NEC (dB): on a 100 ohm feed rod 4.9 / 7.0 (150 m) and -0.5 / +0.2 (60 m: the two paths nearly cancel); on
 a 20 ohm rod 0.8 / 4.5, on a 50 ohm rod 1.8 / 5.4.  NEC's figure is not settled: it grows with the ground junction
