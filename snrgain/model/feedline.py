@@ -121,7 +121,7 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
 _MEMO: dict = {}
 """What does not change between calls on the same feed line or antenna (a termination search, the spreads): the
 EMFs along a route from a source, an antenna's own amplitude from it.  Bounded (cleared past MEMO_SIZE)."""
-MEMO_SIZE = 4096
+MEMO_SIZE = 512
 
 
 def _memo(key, make):
