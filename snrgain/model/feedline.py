@@ -21,6 +21,7 @@ stands), and only antennas grounded at the feed through a transformer (the long 
 
 from __future__ import annotations
 
+from collections import OrderedDict
 from dataclasses import dataclass
 
 import numpy as np
@@ -118,18 +119,20 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
     return Prepared(out, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
 
 
-_MEMO: dict = {}
+_MEMO: OrderedDict = OrderedDict()
 """What does not change between calls on the same feed line or antenna (a termination search, the spreads): the
-EMFs along a route from a source, an antenna's own amplitude from it.  Bounded (cleared past MEMO_SIZE)."""
-MEMO_SIZE = 512
+EMFs along a route from a source, an antenna's own amplitude from it.  The least recently used go past MEMO_SIZE."""
+MEMO_SIZE = 2048
 
 
 def _memo(key, make):
     hit = _MEMO.get(key)
     if hit is None:
-        if len(_MEMO) > MEMO_SIZE:
-            _MEMO.clear()
         hit = _MEMO[key] = make()
+        while len(_MEMO) > MEMO_SIZE:
+            _MEMO.popitem(last=False)
+    else:
+        _MEMO.move_to_end(key)
     return hit
 
 
