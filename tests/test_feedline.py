@@ -350,3 +350,13 @@ def test_feed_line_on_an_antenna_without_a_feed_ground_is_refused():
     )
     with pytest.raises(ScenarioError, match=r"whip.*feed_line|feed_line.*vertical"):
         snrgain.evaluate(text)
+
+
+def test_the_site_plan_draws_the_run():
+    from snrgain.outputs.siteplan import plan_of
+    from snrgain.scenario import load
+
+    sc = load(SCEN.format(site="", feed=FEED.format(extra="")))
+    runs = plan_of(sc)["feed_lines"]
+    assert [(n, [tuple(p) for p in r]) for n, r in runs] == [("bev", [(0.0, 150.0), (0.0, 0.0)])]
+    assert plan_of(load(SCEN.format(site="", feed="")))["feed_lines"] == []
