@@ -15,12 +15,13 @@ from pydantic import BaseModel
 
 from snrgain.antennas.base import FAMILIES
 from snrgain.scenario import ChainSection, PlaceSection, ScenarioModel, load
+from snrgain.scenario.feedline import FeedLineSection
 from snrgain.scenario.switched import CANDIDATE_KEYS
 from tests.conftest import REPO
 
 README = REPO / "README.md"
 STARTER = REPO / "snrgain" / "starter.toml"
-ANTENNA_TABLES = {"chain": ChainSection, "place": PlaceSection}
+ANTENNA_TABLES = {"chain": ChainSection, "place": PlaceSection, "feed_line": FeedLineSection}
 """Tables any antenna may hold besides its family's keys (taken out before the family validates the rest)."""
 TOML_WORDS = {"true", "false"}
 

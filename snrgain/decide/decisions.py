@@ -65,11 +65,13 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
     from snrgain.decide.lot import site_notices
     from snrgain.decide.reading import reading_notices
+    from snrgain.model.feedline import notices as feed_line_notices
     from snrgain.model.scatter import tx_notices
 
     out.extend(site_notices(sc))
     out.extend(tx_notices(sc))
     out.extend(reading_notices(sc))
+    out.extend(feed_line_notices(antennas))
     lowest = p372.MAN_MADE_RANGE_HZ[0]
     if sc.freq_hz < lowest and sc.noise.man_made is not None:
         out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))

@@ -20,7 +20,8 @@ class Notice:
     ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|),
     ``strong-signal-overload`` (stations, loudest, loudest_hz, stage, stage_input_dbm, p1db_dbm, margin_db, over_db,
     filter_db, assumed), ``strong-signal-product`` (order, freq_hz, stations, stage, level_dbm, noise_dbm, over_db,
-    filter_db, assumed).
+    filter_db, assumed), ``feed-line-cost`` (cost_db, noise_share_db, choke_ohm, quiet_below_db: a feed line that
+    costs more than 1 dB of SNR gain; snrgain.model.feedline).
     """
 
     code: str

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from snrgain.decide.build import build_sheet
-from snrgain.model import placed, snr
+from snrgain.model import feedline, placed, snr
 from snrgain.model.results import AntennaResult
 from snrgain.model.spread import SnrSpread, over_hours
 from snrgain.physics import chain as chainmod
@@ -32,6 +32,8 @@ class Products:
     temps: snr.Temperatures
     powers: dict = field(default_factory=dict)
     ground: object = None
+    feed_lines: object = None
+    """What the antennas' feed lines add (snrgain.model.feedline.FeedLineTemps), None without feed lines."""
 
 
 def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=None, known=None) -> Products:
@@ -52,7 +54,10 @@ def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=No
         same_obj = [j if j is not None and known.antennas[j] is a else None for a, j in zip(antennas, rows)]
         have = {n: np.array([p[j] if j is not None else np.nan for j in same_obj]) for n, p in known.powers.items()}
     shares, powers = placed.pickup(sc, antennas, ground=ground, powers=have)
-    if same and strength_db is None and None not in rows and antennas[0] is known.antennas[0] and rows[0] == 0:
+    fl = feedline.prepare(sc, antennas, powers, ground=ground)
+    shares = feedline.shares_with(fl, shares)
+    reuse = same and strength_db is None and None not in rows and antennas[0] is known.antennas[0] and rows[0] == 0
+    if fl is None and reuse:  # feed lines move with their antennas: their part is worked anew
         by = known.temps.by_component[:, rows].copy()  # the sky rows are the gains' alone
         for name, share in shares.items():
             r = skies.names.index(name)
@@ -61,7 +66,13 @@ def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=No
         temps = snr.Temperatures(by, by.sum(axis=0))
     else:
         temps = snr.sky_temperatures(gains, skies, pickup=shares, strength_db=strength_db)
-    return Products(antennas, gains, temps, powers, ground)
+    part = None
+    if fl is not None:  # each feed line's sky part, through its own "gain" (snrgain.model.feedline.gains)
+        part = snr.sky_temperatures(
+            feedline.gains(fl, sc, gains), skies, pickup=feedline.no_pickup(fl), strength_db=strength_db
+        )
+    temps, fl_temps = feedline.added(fl, temps, part, skies)
+    return Products(antennas, gains, temps, powers, ground, fl_temps)
 
 
 def _known_rows(antennas: tuple, known: Products | None) -> list:
@@ -184,9 +195,15 @@ def antenna_results(sc: Scenario, nominal: Products, skies: noisemod.SkySeries, 
                 receiver_limited=bool(np.any(budget.margin_db < sc.receiver.margin_target_db)),
                 chain=chainmod.describe(ch, bandwidth_hz=b),
                 snr_gain_atmospheric_deciles_db=None if deciles[0] is None else np.stack([d[k] for d in deciles]),
-                build={} if k == 0 else build_sheet(ant, sc.freq_hz, cable=ch.cable),
+                build={} if k == 0 else _with_feed_line(build_sheet(ant, sc.freq_hz, cable=ch.cable), sc, nominal, k),
                 group=None if switched_state(ant) is None else switched_state(ant).group,
                 state=None if switched_state(ant) is None else switched_state(ant).state,
             )
         )
     return out
+
+
+def _with_feed_line(sheet: dict, sc: Scenario, nominal: Products, k: int) -> dict:
+    """The build sheet with the antenna's feed line (snrgain.model.feedline.summary) when it has one."""
+    fl = feedline.summary(sc, nominal, k)
+    return sheet if fl is None else {**sheet, "feed_line": fl}

@@ -92,6 +92,20 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{v[f'{other}_rdf_change_db']:+.1f} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
             + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
         )
+    if n.code == "feed-line-cost":
+        choke = (
+            f"a common-mode choke of about {v['choke_ohm']:.0f} ohm at the antenna puts it {v['quiet_below_db']:g} dB "
+            "below the antenna's own pickup"
+            if v["choke_ohm"] > 0
+            else "it is already 20 dB below the antenna's own pickup at its worst hour"
+        )
+        return (
+            f"{n.antenna}: its feed line's shield picks up noise and costs {v['cost_db']:.1f} dB of SNR gain (its "
+            f"share of the noise {v['noise_share_db']:+.1f} dB); {choke}, or an isolation transformer with a choke; "
+            "bond the "
+            "separate grounds as the local electrical code requires, and ground the shield where it enters the house "
+            "against lightning"
+        )
     if n.code == "structure-cost":
         return (
             f"{n.antenna}: the structure {v['structure']!r} {length_text(v['distance_m'], unit, 0)} away costs "

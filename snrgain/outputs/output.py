@@ -442,6 +442,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
         if "ground_loss_ohm" in b:
             bits.append(f"ground loss {b['ground_loss_ohm']:g} ohm")
+        if b.get("feed_line"):
+            bits.append(feed_line_text(b["feed_line"], unit))
         if not bits:  # nothing to cut or solder: a yardstick, or an antenna its source describes (the family says)
             family = FAMILIES.get(b.get("family", a.family))
             if family is not None and not family.build.buildable:
@@ -452,6 +454,24 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 )
         out.append((a.name, "; ".join(bits)))
     return out
+
+
+def feed_line_text(fl: dict, unit: str) -> str:
+    """A feed line's entry of the build sheet (snrgain.model.feedline.summary) in words."""
+    run = "buried" if fl["buried"] else f"at {length_text(fl['height_m'], unit, 1)}"
+    iso = "shield on the antenna's ground" if fl["isolation"] == "shared-ground" else "isolation transformer"
+    choke = f", choke {fl['choke_ohm']:.0f} ohm" if fl["choke_ohm"] else ", no choke"
+    cost = max((c for c in fl["snr_gain_cost_db"] if np.isfinite(c)), default=float("nan"))
+    quiet = (
+        f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm puts it {fl['quiet_below_db']:g} dB below the antenna's own"
+        if fl["choke_for_quiet_ohm"] > 0
+        else f"it is {fl['quiet_below_db']:g} dB or more below the antenna's own"
+    )
+    return (
+        f"feed line {length_text(fl['length_m'], unit, 0)} {run} ({iso}{choke}; station ground "
+        f"{fl['station_ground_ohm']:g} ohm): {fl['noise_share_db']:+.1f} dB of the noise, costs {cost:.1f} dB of SNR "
+        f"gain; {quiet}; ground the shield where it enters and bond the grounds per the local electrical code"
+    )
 
 
 def build_text(r: Results):

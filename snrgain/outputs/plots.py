@@ -557,6 +557,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         )
     for name, pos in plan["sources"]:
         ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
+    for i, (name, run) in enumerate(plan.get("feed_lines", [])):  # dotted in the antenna's colour to the station
+        fx, fy = xy(run)
+        color = looks[name].color if name in looks else "0.3"
+        ax.plot(fx, fy, color=color, ls=":", lw=1.4, label="feed line to the station" if i == 0 else None, zorder=3)
+        ax.plot(fx[1:], fy[1:], marker="s", color="0.25", ms=5, ls="none", zorder=3)
     for a in plan["antennas"]:
         lk = looks[a["name"]]
         label = a["name"] + (" (reference)" if a["reference"] else "")

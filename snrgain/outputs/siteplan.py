@@ -2,10 +2,10 @@
 ``snrgain layout --plot``.
 
 :func:`plan_of` returns a JSON-like dict (plan coordinates [m east, m north] inside; the unit to show them in at
-the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources,
-every antenna as built (a wire from its feed point, an array's elements, a combination drawn between its members
-and joined to each), the lengths of wire off the lot and the points where wires cross.  ``snrgain layout`` passes the
-placed designs, which replace those candidates' positions.
+the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources, the
+feed lines' runs, every antenna as built (a wire from its feed point, an array's elements, a combination drawn
+between its members and joined to each), the lengths of wire off the lot and the points where wires cross.
+``snrgain layout`` passes the placed designs, which replace those candidates' positions.
 
 The unit is the scenario's (:func:`snrgain.units.length_unit_of`: ``[site] units``, else the unit its lengths mostly
 use), feet or metres (the plan says which).
@@ -105,6 +105,10 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         "clearance_m": tx_clearance_m(site, sc.freq_hz) if tx is not None else None,
         "clearance_given": getattr(site, "tx_clearance_m", None) is not None,
         "sources": [(s.name, tuple(map(float, s.position_m))) for s in sc.noise.local if s.position_m is not None],
+        "feed_lines": [  # the coax runs (a candidate's feed_line), from where the antenna stands to the station entry
+            (n, [(placed[n].east_m, placed[n].north_m) if n in placed else fl.start_m, fl.end_m])
+            for n, fl in getattr(sc, "feed_lines", {}).items()
+        ],
         "antennas": antennas,
         "off_lot": off_lot,
         "crossings": crossings,

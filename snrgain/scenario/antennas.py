@@ -18,6 +18,7 @@ from snrgain.constants import placeable_families
 from snrgain.fields import Bearing, StrictModel, quantity
 from snrgain.physics.ground import C_M_PER_S
 
+from .feedline import take_feed_line
 from .receiver import ChainSection
 from .site import raw_ground
 from .switched import expand_directions, far_end
@@ -203,6 +204,8 @@ class Built:
     chains: list[ChainSection | None] = field(default_factory=list)
     placeable: dict[str, PlaceSection] = field(default_factory=dict)
     problems: list[tuple[str, str]] = field(default_factory=list)
+    feed_lines: dict = field(default_factory=dict)
+    """where -> FeedLineSection of the tables that gave a feed_line (snrgain.scenario.feedline)."""
 
 
 def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
@@ -213,6 +216,10 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
     names: set = set()
     ref_name = None
     for where, spec in antenna_specs(data, freq_hz):
+        spec, own_feed, problems = take_feed_line(spec, where)
+        if own_feed is not None:
+            out.feed_lines[where] = own_feed
+        out.problems.extend(problems)
         spec, own_place, own_chain, problems = own_tables(spec, where)
         if problems:
             out.problems.extend(problems)

@@ -6,7 +6,7 @@ their own families even when other sections failed), so one :class:`ScenarioErro
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -23,6 +23,7 @@ from .antennas import Built, build_antennas
 from .band import Band
 from .bands import one_band
 from .compute import Uncertainty
+from .feedline import resolve_feed_lines
 from .files import read_source
 from .local import local_levels_readable, local_sources_clear
 from .model import Scenario, ScenarioModel, model_problems
@@ -78,9 +79,22 @@ def load(
     if model is not None and built.antennas and not problems:
         transmitting, more = transmitting_vertical(model.site.transmitting, built, file_reference)
         problems += more
+    feed_lines = {}
+    if model is not None and built.antennas and built.feed_lines and not problems:
+        feed_lines, more = resolve_feed_lines(
+            built.feed_lines,
+            built.antennas,
+            built.wheres,
+            Site.of(model.site, length_unit),
+            built.antennas[0].params.position or (0.0, 0.0),
+            model.band.frequency,
+            model.site.station_ground,
+        )
+        problems += more
     if problems:
         raise ScenarioError(label, problems)
-    return assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
+    sc = assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
+    return replace(sc, feed_lines=feed_lines) if feed_lines else sc
 
 
 def transmitting_vertical(given: str | None, built: Built, file_reference) -> tuple[str | None, list]:

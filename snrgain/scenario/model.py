@@ -126,6 +126,8 @@ class Scenario:
     """The name of the site's transmitting vertical: ``[site] transmitting``, else the file's reference when it is a
     vertical.  It stays the vertical next door (snrgain.model.scatter) when another antenna is made the reference
     (``--reference``)."""
+    feed_lines: dict[str, Any] = field(default_factory=dict)
+    """Antenna name -> its feed line (snrgain.physics.feedline.FeedLine; snrgain.model.feedline)."""
 
     @property
     def antennas(self) -> list[Antenna]:

@@ -75,6 +75,7 @@ class SiteSection(StrictModel):
     """The detuning reactance across the vertical's base when detuned [ohm] (None: the feed open)."""
     structures: list[Structure] = Field(default_factory=list, max_length=16)
     """Nearby structures that re-radiate: towers, other verticals."""
+    station_ground: quantity("resistance", gt=0.0, le=10000.0) = 25.0  # to earth; feed lines' shields end there
     units: Literal["m", "ft"] | None = None
     """The unit lengths are shown in (terminal, report, build sheet, layout); default: the unit the file's lengths
     mostly use (snrgain.units.length_unit_of).  Inside, and in JSON, lengths stay in metres."""

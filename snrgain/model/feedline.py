@@ -1,0 +1,304 @@
+"""Feed lines in the pipeline: what each antenna's feed line adds to its noise, and what choke would quiet it.
+
+The physics is :mod:`snrgain.physics.feedline` (the shield as a wire over the ground, loaded by the choke and the
+grounds, coupled through the antenna's feed ground).  Here it meets the integrator
+(:func:`snrgain.model.products.products`):
+
+- the sky: the feed line's "gain" into the receiver (:func:`snrgain.physics.feedline.sky_gain`) is integrated over
+  each sky component as an antenna's gain is (:func:`snrgain.model.snr.sky_temperatures`), and added to the
+  antenna's temperature from that component;
+- a placed source: the feed line's amplitude from it adds as a phasor to the antenna's own (one source drives
+  both), and what that changes of the antenna's power, in the units of :func:`snrgain.model.placed.pickup`, is
+  added before the antenna's share of the source is taken (:func:`shares_with`).
+
+Over the sky the two paths add in power (the physics module's docstring says why).  The feed line's share of the
+noise (its own pickup over its own plus the antenna's), the SNR gain it costs (with and without it) and the choke
+resistance that brings its own pickup 20 dB below the antenna's at the worst hour listened are read from the
+products (:func:`summary`) into the antenna's build sheet, and a notice names an antenna whose feed line costs more
+than :data:`COST_WARNING_DB`.  Only candidates take a feed line (the site's levels are read on the reference as it
+stands), and only antennas grounded at the feed through a transformer (the long wires): :func:`antenna_loads`.
+"""
+
+from __future__ import annotations
+
+from collections import OrderedDict
+from dataclasses import dataclass
+
+import numpy as np
+
+from snrgain.physics import feedline as phys
+
+COST_WARNING_DB = 1.0
+"""A feed line that costs more SNR gain than this [dB] is named in a notice."""
+QUIET_BELOW_DB = 20.0
+"""How far below the antenna's own pickup the reported choke puts the feed line's [dB]."""
+CAUTIONS = (
+    "A feed line is a path for lightning and static into the house: ground its shield where it enters (a ground "
+    "block at the entry, bonded to the station's and the electrical service's grounds as the local electrical code "
+    "requires), and disconnect it when storms are near.",
+    "Separate grounds (the antenna's rod, the station's) must be bonded as the local electrical code requires; a "
+    "common-mode choke or an isolation transformer breaks the radio-frequency path, not the safety bond.",
+    "A buried feed line: call before you dig (buried utilities), and use cable rated for burial.",
+)
+
+
+@dataclass(frozen=True)
+class Prepared:
+    """The feed lines of a set of antennas at one frequency: ``lines`` k -> (FeedLine, Coupling) for the antennas
+    that have one; per placed source name -> (antennas,): ``powers`` the power each feed line delivers from it
+    alone, ``effects`` what it changes of the antenna's power, |a + b|^2 - |a|^2 with a the antenna's own amplitude
+    and b the feed line's (they add as phasors; negative where they cancel); ``reference_powers`` name -> the
+    reference antenna's own power from it; and the ``ground`` they were worked on."""
+
+    lines: dict
+    powers: dict
+    effects: dict
+    reference_powers: dict
+    ground: object
+
+
+@dataclass(frozen=True)
+class FeedLineTemps:
+    """What the feed lines add (components, antennas, months, hours) [K], zero for antennas without one:
+    ``by_component`` the feed line's own pickup (its share of the noise; what a choke lowers), ``effect`` what it
+    changes of the antenna's temperature (the same over the sky; for a placed source the phasor sum's change)."""
+
+    prepared: Prepared
+    by_component: np.ndarray
+    effect: np.ndarray
+
+
+def antenna_loads(antenna, freq_hz: float) -> tuple[float, complex, float]:
+    """(feed ground rod, the antenna's own loop Z_in + Z_load, the receiver's load through the transformer) [ohm];
+    ValueError for an antenna without a feed ground."""
+    rod = getattr(antenna, "feed_rod_ohm", None)
+    if rod is None or not hasattr(antenna, "feed_point_impedance") or not hasattr(antenna, "receiver_load_ohm"):
+        raise ValueError(
+            "the feed line's coupling is modelled through the antenna's feed ground rod and transformer (the long "
+            f"wires); a {antenna.family} has neither"
+        )
+    load = float(antenna.receiver_load_ohm(freq_hz))
+    z_in = complex(antenna.feed_point_impedance(freq_hz)) - rod
+    return float(rod), z_in + load, load
+
+
+def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
+    """The couplings of every antenna with a feed line (``sc.feed_lines``, by name, its route starting where the
+    antenna stands) and their pickup of each placed source; ``powers``: the antennas' own (snrgain.model.placed.pickup),
+    whose reference entry scales the feed lines'.  None when no antenna has one."""
+    from snrgain.model import placed
+
+    feeds = getattr(sc, "feed_lines", None) or {}
+    if not any(a.name in feeds for a in antennas):
+        return None
+    ground = sc.site.ground if ground is None else ground
+    f = sc.freq_hz
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    out = {}
+    for k, a in enumerate(antennas):
+        fl = feeds.get(a.name)
+        if fl is None or k == 0:
+            continue
+        start = tuple(float(v) for v in placed.antenna_point(a, ref_m))
+        if fl.start_m != start:
+            from dataclasses import replace
+
+            fl = replace(fl, start_m=start)
+        rod, loop, load = antenna_loads(a, f)
+        out[k] = (fl, phys.coupling(fl, f, ground, rod_ohm=rod, loop_ohm=loop, load_ohm=load))
+    fl_powers, effects = {}, {}
+    for src in (s for s in sc.noise.local if s.position_m is not None):
+        p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
+        for k, (fl, c) in out.items():
+            for kind, _ in placed.dipoles(src):
+                b = port_amplitude(f, phys.emf_current(fl, c, *_route_emf(fl, src, kind, f, ground)), c.load_ohm)
+                a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground)
+                p[k] += abs(b) ** 2
+                d[k] += abs(a + b) ** 2 - abs(a) ** 2
+        fl_powers[src.name], effects[src.name] = p, d
+    return Prepared(out, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
+
+
+_MEMO: OrderedDict = OrderedDict()
+"""What does not change between calls on the same feed line or antenna (a termination search, the spreads): the
+EMFs along a route from a source, an antenna's own amplitude from it.  The least recently used go past MEMO_SIZE."""
+MEMO_SIZE = 2048
+
+
+def _memo(key, make):
+    hit = _MEMO.get(key)
+    if hit is None:
+        hit = _MEMO[key] = make()
+        while len(_MEMO) > MEMO_SIZE:
+            _MEMO.popitem(last=False)
+    else:
+        _MEMO.move_to_end(key)
+    return hit
+
+
+def _source_key(src, kind, freq_hz, ground):
+    g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
+    where = (src.position_m, src.height_m, src.polarisation, getattr(src, "orientation_rad", None))
+    return (where, kind, float(freq_hz), g)
+
+
+def _route_emf(fl, src, kind, freq_hz, ground):
+    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source."""
+
+    def field(pts, heights):
+        return placed_field(src, pts, heights, freq_hz, ground, kind)
+
+    key = ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+    return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
+
+
+def placed_field(src, pts, heights, freq_hz, ground, kind):
+    from snrgain.model import placed
+
+    return placed.field_vector(src, pts, heights, freq_hz, ground, kind=kind)
+
+
+def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
+    """The antenna's own amplitude from a placed source's dipole (snrgain.model.placed.received_amplitudes, its
+    first: a long wire's), memoised by the antenna's parameters (its termination and place among them)."""
+    from snrgain.model import placed
+
+    key = (
+        "own",
+        type(antenna).__name__,
+        antenna.params.model_dump_json(),
+        tuple(reference_m),
+        _source_key(src, kind, freq_hz, ground),
+    )
+    return _memo(key, lambda: placed.received_amplitudes(antenna, src, freq_hz, reference_m, ground, kind=kind)[0])
+
+
+def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex:
+    """The amplitude a current [A] in the receiver's load delivers, in the units of a realized gain's square root
+    (snrgain.antennas.longwire.port_response)."""
+    from snrgain.antennas.longwire import port_response
+
+    return complex(port_response(freq_hz, np.array([current]), load_ohm=load_ohm, elevation_rad=np.array([0.0]))[0])
+
+
+def _closest(fl: phys.FeedLine, src) -> float:
+    """The closest approach of a source to the run [m], its height included."""
+    a, b = np.asarray(fl.start_m), np.asarray(fl.end_m)
+    p = np.asarray(src.position_m, dtype=float)
+    t = np.clip(np.dot(p - a, b - a) / max(np.dot(b - a, b - a), 1e-12), 0.0, 1.0)
+    return float(np.hypot(np.linalg.norm(p - (a + t * (b - a))), src.height_m - fl.wire_height_m))
+
+
+def shares_with(prep: Prepared | None, shares: dict) -> dict:
+    """Each placed source's shares (:func:`snrgain.model.placed.pickup`) with the feed lines' power added: the share
+    is P / P_ref times the source's own scale, so what the feed line changes of P adds share_ref / P_ref times it."""
+    if prep is None:
+        return shares
+    return {name: s + (s[0] / prep.reference_powers[name]) * prep.effects[name] for name, s in shares.items()}
+
+
+def gains(prep: Prepared, sc, reference_gains):
+    """The gains the integrator takes the feed lines' sky part through (snrgain.model.snr.Gains): the reference's
+    first (it carries the placed sources, which :func:`shares_with` gives the feed lines instead), then each feed
+    line's "gain" into its antenna's receiver (:func:`snrgain.physics.feedline.sky_gain`), in the order of
+    ``sorted(prep.lines)``; with :func:`no_pickup` as the placed sources' shares."""
+    from snrgain.model import snr
+
+    f, ground = sc.freq_hz, prep.ground
+    caches = [reference_gains.caches[0]]
+    for k in sorted(prep.lines):
+        fl, c = prep.lines[k]
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: phys.sky_gain(fl, c, f, az, el, ground)))
+    return snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches)))
+
+
+def no_pickup(prep: Prepared) -> dict:
+    """Placed sources' shares for :func:`gains`: none (the feed lines take theirs through :func:`shares_with`)."""
+    return {n: np.zeros(len(prep.lines) + 1) for n in prep.powers}
+
+
+def added(prep: Prepared | None, temps, part, skies):
+    """(the antennas' temperatures with the feed lines' sky part added, FeedLineTemps or None).  ``temps`` come from
+    the integrator with :func:`shares_with`'s shares (placed sources already hold the feed lines); ``part`` is the
+    integrator's product of :func:`gains` (components, 1 + feed lines, months, hours)."""
+    from snrgain.model import snr
+
+    if prep is None:
+        return temps, None
+    by = np.zeros_like(temps.by_component)
+    by[:, sorted(prep.lines)] = part.by_component[:, 1:]
+    sky, effect = by.copy(), by.copy()
+    for name in prep.powers:  # the placed rows: the reference's temperature times P_fl / P_ref
+        r = skies.names.index(name)
+        t_ref = temps.by_component[r, 0][None] / prep.reference_powers[name]
+        by[r] = t_ref * prep.powers[name][:, None, None]
+        effect[r] = t_ref * prep.effects[name][:, None, None]
+    total = temps.by_component + sky
+    return snr.Temperatures(total, total.sum(axis=0)), FeedLineTemps(prep, by, effect)
+
+
+def summary(sc, nominal, k: int) -> dict | None:
+    """The feed line of antenna ``k`` of ``nominal`` (snrgain.model.products.Products) for its build sheet: its
+    share of the noise [dB] (median and worst over the hours listened), the SNR gain it costs per target [dB], the
+    choke resistance [ohm] that brings it :data:`QUIET_BELOW_DB` below the antenna's own pickup, and the cautions;
+    None without a feed line."""
+    from snrgain.model.products import snr_gains, target_masks, target_statistic
+
+    fl_t = getattr(nominal, "feed_lines", None)
+    if fl_t is None or k not in fl_t.prepared.lines:
+        return None
+    fl, c = fl_t.prepared.lines[k]
+    mine = fl_t.by_component[:, k].sum(axis=0)  # (months, hours): the feed line's own pickup
+    total = nominal.temps.total[k]
+    own = np.maximum(total - fl_t.effect[:, k].sum(axis=0), 1e-30)  # the antenna's own: without the feed line
+    listened = np.any(target_masks(sc), axis=0)
+    share_db = 10 * np.log10(np.maximum(mine, 1e-30) / (own + mine))
+    t_chain = sc.chains[k].temperature_k
+    g_with = snr_gains(sc, nominal)[k]
+    g_without = g_with + 10 * np.log10((total + t_chain) / (own + t_chain))[None]
+    cost = target_statistic(sc, g_without[None])[0] - target_statistic(sc, g_with[None])[0]
+    ratio = float(np.max((mine / own)[listened])) if np.any(listened) else float(np.max(mine / own))
+    choke = phys.choke_for_ratio(fl, c, sc.freq_hz, ratio * 10 ** (QUIET_BELOW_DB / 10))
+    return {
+        "route_m": [list(fl.start_m), list(fl.end_m)],
+        "length_m": fl.length_m,
+        "height_m": fl.height_m,
+        "buried": fl.buried,
+        "choke_ohm": fl.choke_ohm,
+        "isolation": fl.isolation,
+        "station_ground_ohm": fl.station_ground_ohm,
+        "shield_z0_ohm": float(abs(c.line.z0)),
+        "noise_share_db": float(np.median(share_db[listened])) if np.any(listened) else float(np.median(share_db)),
+        "noise_share_worst_db": float(np.max(share_db[listened])) if np.any(listened) else float(np.max(share_db)),
+        "snr_gain_cost_db": [float(x) for x in cost],
+        "choke_for_quiet_ohm": choke,
+        "quiet_below_db": QUIET_BELOW_DB,
+        "cautions": list(CAUTIONS),
+    }
+
+
+def notices(results) -> list:
+    """``feed-line-cost`` for each antenna whose feed line costs more than :data:`COST_WARNING_DB` of SNR gain
+    toward some target (values: cost_db, the worst target's; noise_share_db; choke_ohm, the choke that quiets it)."""
+    from snrgain.model.notices import Notice
+
+    out = []
+    for r in results:
+        fl = (r.build or {}).get("feed_line")
+        if not fl:
+            continue
+        costs = [c for c in fl["snr_gain_cost_db"] if np.isfinite(c)]
+        if costs and max(costs) > COST_WARNING_DB:
+            out.append(
+                Notice(
+                    "feed-line-cost",
+                    r.name,
+                    {
+                        "cost_db": max(costs),
+                        "noise_share_db": fl["noise_share_db"],
+                        "choke_ohm": fl["choke_for_quiet_ohm"],
+                        "quiet_below_db": fl["quiet_below_db"],
+                    },
+                )
+            )
+    return out

@@ -1,0 +1,320 @@
+"""The feed line as an antenna: common-mode current on a coax shield and what of it reaches the receiver.
+
+Model
+-----
+The outside of a coaxial cable's shield and the earth under it form a single-wire line over lossy
+ground, the same line a Beverage is (DESIGN.md, "Long wire over ground"; snrgain.physics.lines: the wire-over-earth
+series impedance with the complex penetration depth, Deri, Tevan, Semlyen and Castanheira, IEEE Trans. PAS-100
+(1981), and the wire-over-image capacitance; the exact mode of snrgain.physics.modal where it settles). Skin
+effect keeps the current on the outside of the braid apart from the signal inside at these frequencies (S.
+Ramo, J. R. Whinnery and T. Van Duzer, "Fields and Waves in Communication Electronics", 3rd ed. (1994), chapter
+5, cited from memory; the braid's transfer impedance is neglected: a braid of a few tens of mohm/m couples far less
+than the ends do). So the shield is a wire of the jacket's outer radius (its field runs outside the jacket; the
+braid's own radius for a buried cable, whose jacket is then the insulation of a wire in the soil,
+snrgain.physics.lines.insulated_on_ground):
+
+- at the antenna end (x = 0) it comes up from the transformer at the foot of the feed down-lead (a vertical
+  lead of the run's height) and is loaded by Z_A = Z_iso + (Z_rod || Z_loop): the isolation in series
+  (a common-mode choke's resistance; an isolation transformer's interwinding capacitance 1/(j w C); 0 for a
+  shared ground), then the antenna's feed ground rod Z_rod in parallel with the antenna's own loop
+  Z_loop = Z_in + Z_load (the antenna's line input impedance and the receiver's load through the transformer);
+- at the station end (x = L) it comes down to the station's ground Z_S (a down-lead of the run's height);
+- it is driven, like a Beverage, by the incident field along it and up and down its leads: a plane wave from
+  the sky (snrgain.antennas.longwire's kernels, so the shield's sky pattern is a long wire's) or a placed
+  source's near field sampled along the route (noisemodels.nearground, as snrgain.model.placed drives a long
+  wire).
+
+The common-mode current arriving at the antenna end, I_A, splits between the rod and the antenna's loop; the part
+that runs through the receiver's load is the current divider I_load = I_A Z_rod / (Z_rod + Z_loop) (common-impedance
+coupling: the rod's voltage I Z_rod is a series EMF in the antenna's loop; H. W. Ott, "Electromagnetic Compatibility
+Engineering" (Wiley, 2009), the grounding chapter on common-impedance coupling and ground loops, cited from memory).
+An isolation transformer's capacitance passes the current into the antenna's side, where it reaches earth the same
+way; a choke only limits I_A. I_load, taken as the port response of :func:`snrgain.antennas.longwire.port_response`,
+is the feed line's "gain" in the same units as the antenna's realized gain: what a unit plane wave (or a placed
+source of unit strength) delivers to the receiver through the feed line.
+
+I_A depends on Z_A only through Thevenin's theorem: I_A = V_oc / (Z_th + Z_A), with Z_th the shield line's input
+impedance toward the station (its far end in Z_S) and V_oc the open-circuit voltage the field makes; V_oc and
+Z_th do not depend on Z_A, so a choke scales every direction's pickup by the same |Z_th + Z_A0|^2 /
+|Z_th + Z_A|^2 (:func:`choke_for_ratio` solves for the resistance that gives a wanted reduction).
+
+A placed source drives the antenna and its feed line together: their currents in the load add as phasors
+(:func:`field_current` keeps the antenna's sign).  Over the sky the feed line's noise adds to the antenna's in
+power (a diffuse sky's directions are incoherent, and the two paths' relative phase turns from direction to
+direction).  The signal the shield picks up toward a target is neglected (it reaches the load through the same
+current divider; NEC gives it +0.1 to +0.6 dB).
+
+Independent check (tests/nec/make_feedline.py: nec2c with the fbar() fix over eps_r 13, 5 mS/m at 1.83 MHz; a
+200 m Beverage at 2 m, an RG-6 shield 60-150 m at 1 m to a 25 ohm station ground joining the feed lead 1 m up, a
+small vertical source 10 m from the shield).  The shield's current at the antenna end is within 0.1-1.7 dB of
+NEC's, and the phase of its share in the load within 11-37 deg.  The SNR the shield costs with the source alone,
+model / NEC (dB): on a 100 ohm feed rod 4.9 / 7.0 (150 m) and -0.5 / +0.2 (60 m: the two paths nearly cancel); on
+a 20 ohm rod 0.8 / 4.5, on a 50 ohm rod 1.8 / 5.4.  NEC's figure is not settled: it grows with the ground junction
+the deck de-embeds at the feed lead's foot (DESIGN.md), 4.5, 7.1, 9.4 dB on the 20 ohm rod with the lead's bottom
+metre in 1, 2, 4 segments (junction 123, 234, 496 ohm); carried back to no junction it reads 5.6, 1.5 and 1.1 dB
+on the 100, 20 and 50 ohm rods, within 1 dB of the model.  A 5 kohm choke: 0.0 to -1.5 dB against NEC's -0.5 to
++0.5 dB.
+
+Values from memory (not checked against a datasheet; snrgain's assumption): the cables' jacket and braid
+diameters in :data:`CABLES`; an isolation transformer's interwinding capacitance of 20 pF
+(:data:`INTERWINDING_F`; small two-winding transformers on ferrite cores, 5-30 pF); a choke's impedance taken as
+a resistance (a ferrite choke near its self-resonance is mostly resistive: common practice).  The model neglects
+the leads' own inductance, the shield's coupling to the antenna's own wire (it runs away from the antenna), and
+any coupling at the station's end (the receiver's chassis grounded at the station ground carries the current to
+earth without passing the input).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S
+
+CABLES: dict[str, tuple[float, float]] = {
+    # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
+    # (not checked against a datasheet: snrgain's assumption; a few per cent change Z0 by under 1 %)
+    "RG-58": (3.6e-3, 4.95e-3),
+    "RG-8X": (5.0e-3, 6.1e-3),
+    "RG-213": (8.7e-3, 10.3e-3),
+    "RG-59": (4.6e-3, 6.15e-3),
+    "RG-6": (5.3e-3, 6.9e-3),
+    "RG-11": (8.1e-3, 10.3e-3),
+}
+JACKET_PERMITTIVITY = 2.5
+"""A PVC or polyethylene jacket's relative permittivity (from memory: PE 2.3, PVC 3-4 at HF)."""
+INTERWINDING_F = 20e-12
+"""An isolation transformer's interwinding capacitance [F] when none is given (from memory: 5-30 pF)."""
+BURIED_DEPTH_M = 0.15
+"""The depth of a buried feed line when none is given [m] (a spade's depth: common practice)."""
+ISOLATIONS = ("shared-ground", "transformer")
+_LINES: dict = {}
+"""Shield line constants already solved, by geometry, frequency and soil."""
+
+
+@dataclass(frozen=True)
+class FeedLine:
+    """A feed line's run and its connections, SI.
+
+    start_m : the antenna end (the antenna's feed point) [m east, m north]; end_m : the station entry
+    height_m : the run's height above the soil [m], None when buried (``depth_m`` then)
+    braid_radius_m, jacket_radius_m : the cable's [m]
+    choke_ohm : a common-mode choke's resistance at the antenna end [ohm], None for none
+    isolation : "shared-ground" (the shield joins the antenna's ground) or "transformer" (separate windings)
+    interwinding_f : an isolation transformer's interwinding capacitance [F]
+    station_ground_ohm : the station ground's resistance to earth [ohm]
+    """
+
+    start_m: tuple[float, float]
+    end_m: tuple[float, float]
+    height_m: float | None
+    braid_radius_m: float
+    jacket_radius_m: float
+    station_ground_ohm: float
+    choke_ohm: float | None = None
+    isolation: str = "shared-ground"
+    interwinding_f: float = INTERWINDING_F
+    depth_m: float = BURIED_DEPTH_M
+
+    def __post_init__(self):
+        if self.isolation not in ISOLATIONS:
+            raise ValueError(f"isolation must be one of {ISOLATIONS}; got {self.isolation!r}")
+        if self.choke_ohm is not None and not self.choke_ohm > 0:
+            raise ValueError(f"choke must be > 0 ohm (leave it out for none); got {self.choke_ohm!r}")
+        if not self.station_ground_ohm > 0:
+            raise ValueError(f"station_ground must be > 0 ohm; got {self.station_ground_ohm!r}")
+        if not self.length_m >= 1.0:
+            raise ValueError(f"a feed line runs at least 1 m from the antenna to the station; got {self.length_m:g} m")
+
+    @property
+    def length_m(self) -> float:
+        return float(np.hypot(self.end_m[0] - self.start_m[0], self.end_m[1] - self.start_m[1]))
+
+    @property
+    def bearing_rad(self) -> float:
+        """Compass bearing from the antenna end toward the station [rad]."""
+        return float(np.mod(np.arctan2(self.end_m[0] - self.start_m[0], self.end_m[1] - self.start_m[1]), 2 * np.pi))
+
+    @property
+    def buried(self) -> bool:
+        return self.height_m is None
+
+    @property
+    def wire_height_m(self) -> float:
+        """The height the field drives the shield at [m] (0: at the surface, for a buried run)."""
+        return 0.0 if self.height_m is None else float(self.height_m)
+
+    def with_choke(self, choke_ohm: float | None) -> FeedLine:
+        from dataclasses import replace
+
+        return replace(self, choke_ohm=choke_ohm)
+
+    def isolation_ohm(self, freq_hz: float, *, choke: bool = True) -> complex:
+        """The series impedance between the shield and the antenna's ground [ohm]: the choke (if ``choke``) and an
+        isolation transformer's interwinding capacitance."""
+        z = 0j
+        if choke and self.choke_ohm is not None:
+            z += self.choke_ohm
+        if self.isolation == "transformer":
+            z += 1.0 / (2j * np.pi * freq_hz * self.interwinding_f)
+        return z
+
+    def line(self, freq_hz: float, ground) -> lines.LineConstants:
+        """The shield's common-mode line over ``ground`` (memoised: the exact mode takes a root search)."""
+        key = (
+            self.buried,
+            self.height_m,
+            self.depth_m,
+            self.braid_radius_m,
+            self.jacket_radius_m,
+            float(freq_hz),
+            None if ground is None else (ground.conductivity_s_per_m, ground.permittivity),
+        )
+        hit = _LINES.get(key)
+        if hit is None:
+            if len(_LINES) > 1024:
+                _LINES.clear()
+            hit = _LINES[key] = self._line(freq_hz, ground)
+        return hit
+
+    def _line(self, freq_hz: float, ground) -> lines.LineConstants:
+        if self.buried:
+            if ground is None:
+                raise ValueError("a buried feed line needs a real ground (conductivity and permittivity)")
+            return lines.insulated_on_ground(
+                freq_hz,
+                radius_m=self.braid_radius_m,
+                insulation_radius_m=self.jacket_radius_m,
+                insulation_permittivity=JACKET_PERMITTIVITY,
+                ground=ground,
+                depth_m=max(self.depth_m, self.jacket_radius_m),
+            )
+        return lines.overhead_wire(freq_hz, radius_m=self.jacket_radius_m, height_m=self.height_m, ground=ground)
+
+
+@dataclass(frozen=True)
+class Coupling:
+    """The circuit at the antenna end at one frequency: the shield's line, Z_th (its input impedance toward the
+    station), Z_A (the antenna end's load), the share of I_A through the receiver's load, and that load [ohm]."""
+
+    line: lines.LineConstants
+    z_th: complex
+    z_end: complex
+    divider: complex
+    load_ohm: float
+
+    @property
+    def choke_factor(self) -> float:
+        """|Z_th + Z_A|^2: the power of I_A goes as its inverse."""
+        return float(abs(self.z_th + self.z_end) ** 2)
+
+
+def coupling(fl: FeedLine, freq_hz: float, ground, *, rod_ohm: float, loop_ohm: complex, load_ohm: float) -> Coupling:
+    """The antenna end's circuit (module docstring): ``rod_ohm`` the antenna's feed ground, ``loop_ohm`` its own
+    loop (line input impedance plus receiver load), ``load_ohm`` the receiver's load through the transformer."""
+    ln = fl.line(freq_hz, ground)
+    z_th = lines.input_impedance(ln, length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
+    rod = complex(rod_ohm)
+    par = rod * loop_ohm / (rod + loop_ohm) if rod != 0 else 0j
+    z_end = fl.isolation_ohm(freq_hz) + par
+    divider = rod / (rod + loop_ohm)
+    return Coupling(ln, complex(z_th), complex(z_end), complex(divider), float(load_ohm))
+
+
+def choke_for_ratio(fl: FeedLine, c: Coupling, freq_hz: float, reduction: float) -> float:
+    """The choke resistance [ohm] that lowers the feed line's pickup by the power ratio ``reduction`` (>= 1)
+    from what ``c`` (worked with ``fl``'s own choke) gives: |Z_th + Z_A(R)|^2 = reduction |Z_th + Z_A|^2.  0 when
+    no choke is needed (``reduction`` <= 1)."""
+    if reduction <= 1.0:
+        return 0.0
+    base = c.z_th + c.z_end - (fl.choke_ohm or 0.0)  # without the choke
+    want = reduction * c.choke_factor
+    rest = want - base.imag**2
+    r = -base.real + np.sqrt(max(rest, 0.0))
+    return float(max(r, 0.0))
+
+
+def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground):
+    """(e_v, e_h): the complex port response into the receiver's load through the feed line, for unit plane waves
+    of each polarization from (azimuth, elevation); |e|^2 in the units of a realized gain."""
+    from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, port_response, vertical_emf
+
+    w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    f_v, f_h = field_along_wire(w, fl.wire_height_m)
+    lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
+    (i_v, i_h), _ = line_currents(
+        w,
+        line=c.line,
+        length_m=fl.length_m,
+        z_feed=c.z_end,
+        z_far=fl.station_ground_ohm,
+        drive_v=-w.cos_dphi * f_v[w.inv],
+        drive_h=-w.sin_dphi * f_h[w.inv],
+        v_end=lead,
+    )
+    return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
+
+
+def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
+    """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon."""
+    ev, eh = sky_response(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
+    return np.abs(ev) ** 2 + np.abs(eh) ** 2
+
+
+LEAD_POINTS = 6
+"""Gauss-Legendre points up each lead for the integral of the vertical field."""
+
+
+def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
+    """Distances along the run [m]: finer than a 40th of a wavelength and a quarter of the closest approach of a
+    source, at least 200 points, at most 20,000."""
+    lam = C_M_PER_S / freq_hz
+    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
+    n = int(np.clip(np.ceil(fl.length_m / step), 200, 20_000)) + 1
+    return np.linspace(0.0, fl.length_m, n)
+
+
+def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
+    """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
+    incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
+    :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads."""
+    b = fl.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    x = route_samples(fl, freq_hz, closest_m)
+    pts = np.asarray(fl.start_m, dtype=float)[None, :] + x[:, None] * u[None, :]
+    e = field(pts, np.full(len(x), fl.wire_height_m))
+    emf = e[:, 0] * u[0] + e[:, 1] * u[1]
+    lead = np.zeros(2, dtype=complex)
+    if not fl.buried:
+        h = fl.wire_height_m
+        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        zs = (t + 1) * h / 2
+        ends = np.array([pts[0], pts[-1]])
+        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
+        lead = (ez[:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
+    return x, emf, lead
+
+
+def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
+    """The current [A] through the receiver's load from :func:`route_emf`'s EMFs (:func:`field_current`)."""
+    L, g, z0 = fl.length_m, c.line.gamma, c.line.z0
+    z_a, z_s = c.z_end, fl.station_ground_ohm
+    d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
+    transfer = (z0 * np.cosh(g * (L - x)) + z_s * np.sinh(g * (L - x))) / d
+    current = np.trapezoid(emf * transfer, x)
+    current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
+    return complex(-current * c.divider)
+
+
+def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m: float) -> complex:
+    """The current [A] through the receiver's load from an incident field given as ``field(points (N, 2), heights
+    (N,)) -> (N, 3)`` [east, north, up] (a placed source's, :func:`snrgain.model.placed.field_vector`): the EMF
+    along the run (trapezoid rule on :func:`route_samples`) and up and down its leads, through the line's
+    transfer function to the antenna end, times the current divider.
+
+    Its sign is the antenna's own feed current's (snrgain.antennas.longwire: up the feed lead through the load):
+    I_A leaves the junction up into the shield, so the share that comes through the antenna's loop runs down
+    through the load, -I_A Z_rod / (Z_rod + Z_loop); the two add as phasors where one source drives both."""
+    return emf_current(fl, c, *route_emf(fl, freq_hz, field, closest_m=closest_m))

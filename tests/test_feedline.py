@@ -1,0 +1,362 @@
+"""The feed line as an antenna (snrgain.physics.feedline, snrgain.model.feedline, a candidate's feed_line table)."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import snrgain
+from snrgain.antennas import from_spec
+from snrgain.errors import ScenarioError
+from snrgain.model import placed
+from snrgain.model.feedline import antenna_loads, port_amplitude
+from snrgain.physics import feedline as phys
+from snrgain.physics.ground import Ground
+from snrgain.sky.noise import LocalSource
+
+NEC_CASES = json.loads((Path(__file__).parent / "nec" / "feedline.json").read_text())["cases"]
+CASE = NEC_CASES[0]["case"]
+F = CASE["freq_mhz"] * 1e6
+GROUND = Ground(CASE["conductivity_s_per_m"], CASE["permittivity"], "nec case")
+
+
+def _beverage(c=CASE):
+    return from_spec(
+        {
+            "family": "beverage",
+            "length": f"{c['bev_length_m']} m",
+            "height": f"{c['bev_height_m']} m",
+            "bearing": c["bev_bearing_deg"],
+            "ground": {"conductivity": f"{c['conductivity_s_per_m']} S/m", "permittivity": c["permittivity"]},
+            "feed_ground": c["feed_rod_ohm"],
+            "far_ground": c["far_rod_ohm"],
+            "termination": c["termination_ohm"],
+            "turns_ratio": c["turns_ratio"],
+            "coax": 75,
+            "diameter": f"{2 * c['wire_radius_m']} m",
+            "position": [0, 0],
+        }
+    )
+
+
+def _shield(choke=None, isolation="shared-ground", c=CASE):
+    return phys.FeedLine(
+        (0.0, 0.0),
+        (0.0, -c["shield_length_m"]),
+        c["shield_height_m"],
+        0.0027,
+        c["shield_radius_m"],
+        c["station_ground_ohm"],
+        choke_ohm=choke,
+        isolation=isolation,
+    )
+
+
+def _source(x, y, height=CASE["source_height_m"]):
+    return LocalSource("s", 0.0, float(np.radians(5.0)), 0.0, 60.0, position_m=(x, y), height_m=height)
+
+
+def _amplitudes(bev, fl, src, c=None):
+    """(the Beverage's own amplitude from a placed source, its feed line's), in the units of placed.received_power
+    (their phasor sum is what the receiver gets)."""
+    rod, loop, load = antenna_loads(bev, F)
+    cp = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+
+    def field(pts, h):
+        return placed.field_vector(src, pts, h, F, GROUND, kind="vertical")
+
+    i = phys.field_current(fl, cp, F, field, closest_m=10.0)
+    a = placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND)[0]
+    return a, port_amplitude(F, i, load)
+
+
+# -- the physics ---------------------------------------------------------------------------------------------------
+
+
+def _model_loss(c: dict, choke) -> float:
+    """The SNR [dB] the shield costs with the source as the only noise: the noise's rise (the signal is unchanged)."""
+    a, b = _amplitudes(_beverage(c), _shield(choke, c=c), _source(*c["source_m"], height=c["source_height_m"]))
+    return float(10 * np.log10(abs(a + b) ** 2 / abs(a) ** 2))
+
+
+BY_NAME = {n["case"]["name"]: n for n in NEC_CASES}
+
+
+BASE = ["s150-rod100", "s60-rod100", "s150-rod20", "s100-rod50-end"]
+
+
+@pytest.mark.parametrize("name", BASE)
+def test_nec_agrees_on_the_loss(name):
+    # tests/nec/make_feedline.py: nec2c (fbar fix) over eps_r 13, 5 mS/m at 1.83 MHz: a 200 m Beverage with its
+    # RG-6 shield 60-150 m at 1 m to a 25 ohm station ground, on a 20-100 ohm feed rod, a small vertical source 10 m
+    # from the shield.  The SNR the shield costs with the source as the only noise, within the issue's 3 dB plus
+    # NEC's own segmentation spread, stated per case: the same deck with the feed lead's bottom metre in two
+    # segments (NEC's ground junction de-embedded there: 234 ohm against 123 ohm).  Measured, model / NEC one
+    # segment / two (dB): 150 m on 100 ohm 4.9 / 7.0 / 8.3; 60 m on 100 ohm -0.5 / 0.2 / 3.7 (the two paths nearly
+    # cancel: NEC's feed-line current in the load lies 153 deg from the Beverage's own, the model's 164 deg); 150 m
+    # on 20 ohm 0.8 / 4.5 / 7.1; 100 m on 50 ohm, the source near the station, 1.8 / 5.4 / 9.2.
+    nec, finer = BY_NAME[name], BY_NAME[f"{name}-seg2"]
+    assert nec["front_to_back_v_db"] > 6  # the deck's plane wave arrives from where the Beverage points
+    spread = abs(finer["loss_db"]["shield"] - nec["loss_db"]["shield"])
+    assert _model_loss(nec["case"], None) == pytest.approx(nec["loss_db"]["shield"], abs=3.0 + spread)
+
+
+@pytest.mark.parametrize("name", ["s150-rod100", "s150-rod20", "s100-rod50-end"])
+def test_nec_without_its_junction_is_near_the_model(name):
+    # NEC's loss grows with the ground junction it adds and the deck takes out again (150 m on 20 ohm: 4.5, 7.1,
+    # 9.4 dB with the feed lead's bottom metre in 1, 2, 4 segments, junction 123, 234, 496 ohm).  Carried back to no
+    # junction along the first two (a straight line in the junction's resistance): 5.6, 1.5 and 1.1 dB against the
+    # model's 4.9, 0.8 and 1.8 dB.  (The 60 m case, where the paths cancel, is not monotonic and is left out.)
+    nec, finer = BY_NAME[name], BY_NAME[f"{name}-seg2"]
+    r1, r2 = nec["junction_ohm"]["feed_lead"], finer["junction_ohm"]["feed_lead"]
+    l1, l2 = nec["loss_db"]["shield"], finer["loss_db"]["shield"]
+    at_zero = l1 - r1 * (l2 - l1) / (r2 - r1)
+    assert _model_loss(nec["case"], None) == pytest.approx(at_zero, abs=1.0)
+
+
+@pytest.mark.parametrize("name", BASE)
+def test_a_choke_takes_the_loss_away_in_nec_and_the_model(name):
+    # A 5000 ohm choke: NEC 0.5, 0.1, 0.2, -0.5 dB; the model 0.0, -0.4, 0.0, -1.5 dB (measured).
+    nec = BY_NAME[name]
+    model = _model_loss(nec["case"], nec["case"]["choke_ohm"])
+    assert abs(nec["loss_db"]["choked"]) < 1.0 and abs(model) < 2.0
+    assert model == pytest.approx(nec["loss_db"]["choked"], abs=1.5)
+
+
+@pytest.mark.parametrize("name", BASE)
+def test_shield_current_matches_nec(name):
+    # The common-mode current leaving the antenna end, over the Beverage's own load current, as NEC gives it:
+    # measured 0.5, 1.7, 0.1, 0.6 dB apart (150 m, 60 m, 20 ohm rod, 50 ohm rod).
+    nec = BY_NAME[name]
+    c = nec["case"]
+    bev, src, fl = _beverage(c), _source(*c["source_m"], height=c["source_height_m"]), _shield(c=c)
+    rod, loop, load = antenna_loads(bev, F)
+    cp = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    i_load = phys.field_current(
+        fl, cp, F, lambda p, h: placed.field_vector(src, p, h, F, GROUND, kind="vertical"), closest_m=10.0
+    )
+    i_ant = placed.wire_feed_current(bev, src, F, np.array([0.0, 0.0]), GROUND, kind="vertical")
+    model = abs(i_load / cp.divider) / abs(i_ant)
+    runs = nec["runs"]
+    ratio = abs(complex(*runs["shield"]["shield_current_at_antenna"])) / abs(complex(*runs["alone"]["source"]))
+    assert 20 * np.log10(model / ratio) == pytest.approx(0.0, abs=2.0)
+
+
+def test_far_source_is_the_sky_pattern():
+    # A source 30 km away drives the shield as the plane wave from its direction at its elevation does (the same
+    # line through the sampled field and through the closed-form integrals), as for the long wires (test_placed).
+    bev = _beverage()
+    rod, loop, load = antenna_loads(bev, F)
+    fl = _shield()
+    c = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    for az_deg in (0.0, 30.0, 150.0, 180.0):
+        az = np.radians(az_deg)
+        src = _source(30e3 * np.sin(az), -75.0 + 30e3 * np.cos(az), height=0.0)
+        i = phys.field_current(
+            fl, c, F, lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"), closest_m=30e3
+        )
+
+        e = abs(placed.source_field(src, [[0.0, -75.0]], F, GROUND)[0][0]) ** 2
+        g = phys.sky_gain(fl, c, F, np.array([az]), np.array([src.elevation_rad]), GROUND)[0]
+        assert 10 * np.log10(abs(port_amplitude(F, i, load)) ** 2 / e) == pytest.approx(10 * np.log10(g), abs=0.5), (
+            az_deg
+        )
+
+
+def test_a_choke_scales_every_direction_alike_and_the_reported_one_gives_its_reduction():
+    # Thevenin: I_A = V_oc / (Z_th + Z_A), so a choke divides the pickup from every direction by the same factor,
+    # and choke_for_ratio's resistance gives exactly the reduction asked.
+    bev = _beverage()
+    rod, loop, load = antenna_loads(bev, F)
+    az = np.radians(np.arange(0.0, 360.0, 30.0))
+    el = np.full(az.shape, np.radians(15.0))
+    base = _shield()
+    c0 = phys.coupling(base, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    g0 = phys.sky_gain(base, c0, F, az, el, GROUND)
+    r = phys.choke_for_ratio(base, c0, F, 100.0)
+    choked = base.with_choke(r)
+    c1 = phys.coupling(choked, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    g1 = phys.sky_gain(choked, c1, F, az, el, GROUND)
+    np.testing.assert_allclose(g0 / g1, 100.0, rtol=1e-6)
+    assert phys.choke_for_ratio(base, c0, F, 1.0) == 0.0
+    # An isolation transformer (20 pF: -4.3 kohm at 1.83 MHz) quiets the shield like a choke of that size.
+    tr = _shield(isolation="transformer")
+    ct = phys.coupling(tr, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    assert np.all(phys.sky_gain(tr, ct, F, az, el, GROUND) < g0 / 100)
+
+
+def test_shield_line_is_the_wire_over_ground_line():
+    # The shield's line is snrgain.physics.lines' wire over the ground at its height and jacket radius; buried, the
+    # insulated wire in the soil (slower and lossier).
+    fl = _shield()
+    ln = fl.line(F, GROUND)
+    assert 0.85 < ln.velocity_factor < 1.0 and 300 < abs(ln.z0) < 550
+    buried = phys.FeedLine((0.0, 0.0), (0.0, -150.0), None, 0.0027, 0.00345, 25.0)
+    lb = buried.line(F, GROUND)
+    assert lb.velocity_factor < 0.5 * ln.velocity_factor and lb.attenuation_db_per_m > ln.attenuation_db_per_m
+
+
+# -- the scenario ---------------------------------------------------------------------------------------------------
+
+
+SCEN = """
+[site]
+name = "test lot"
+latitude = 44.2
+longitude = -71.3
+ground = "moist loam"
+{site}
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[noise.local]]
+name = "supply"
+position = ["10 m", "75 m"]
+height = "1 m"
+level = "S9"
+
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "40 m"
+
+[[candidate]]
+name = "bev"
+family = "beverage"
+length = "200 m"
+height = "2 m"
+bearing = 45
+position = ["0 m", "150 m"]
+feed_ground = "100 ohm"
+far_ground = "20 ohm"
+termination = "500 ohm"
+turns_ratio = 3.0
+diameter = "2 mm"
+{feed}
+
+[[candidate]]
+name = "other"
+family = "beverage"
+length = "150 m"
+height = "2 m"
+bearing = 90
+position = ["-100 m", "-50 m"]
+"""
+FEED = 'feed_line = {{ to = ["0 m", "0 m"], height = "1 m"{extra} }}'
+
+
+def _run(feed="", site=""):
+    r = snrgain.evaluate(SCEN.format(site=site, feed=feed))
+    return r, {c.name: c for c in r.candidates}
+
+
+def test_an_unchoked_feed_line_costs_snr_and_the_reported_choke_restores_it():
+    # The Beverage's shield passes 10 m from an S9 source (read on the reference); the S9 source is the loudest
+    # noise there.  Measured: 15.9 dB without a feed line, 11.7 dB with it unchoked (cost 4.3 dB, noise share
+    # -2.1 dB), 15.9 dB through the reported choke (3.1 kohm; its share then -20.0 dB).
+    _, none = _run()
+    r, bare = _run(FEED.format(extra=""))
+    fl = bare["bev"].build["feed_line"]
+    cost = none["bev"].snr_gain_nominal_db[0] - bare["bev"].snr_gain_nominal_db[0]
+    assert cost > 2.0
+    assert fl["snr_gain_cost_db"][0] == pytest.approx(cost, abs=1e-6)
+    assert fl["noise_share_db"] > -6
+    notes = [n for n in r.notices if n.code == "feed-line-cost"]
+    assert [n.antenna for n in notes] == ["bev"]
+    from snrgain.outputs.messages import notice_text
+
+    text = notice_text(notes[0])
+    assert "bev" in text and "choke" in text and "electrical code" in text
+    assert any("lightning" in c for c in fl["cautions"])
+    _, choked = _run(FEED.format(extra=f', choke = "{fl["choke_for_quiet_ohm"]:.0f} ohm"'))
+    restored = choked["bev"].snr_gain_nominal_db[0]
+    assert restored == pytest.approx(none["bev"].snr_gain_nominal_db[0], abs=1.0)
+    assert choked["bev"].build["feed_line"]["noise_share_db"] == pytest.approx(-20.0, abs=0.2)
+    assert not [n for n in _run(FEED.format(extra=', choke = "20 kohm"'))[0].notices if n.code == "feed-line-cost"]
+
+
+def test_nothing_changes_for_antennas_without_a_feed_line():
+    _, none = _run()
+    _, some = _run(FEED.format(extra=""), site='station_ground = "60 ohm"')
+    a, b = none["other"], some["other"]
+    np.testing.assert_array_equal(a.snr_gain_nominal_db, b.snr_gain_nominal_db)
+    for name in a.noise_by_component_dbm:
+        np.testing.assert_array_equal(a.noise_by_component_dbm[name], b.noise_by_component_dbm[name])
+    assert "feed_line" not in a.build and "feed_line" not in b.build
+
+
+def test_station_ground_and_isolation_change_the_pickup():
+    _, low = _run(FEED.format(extra=""), site='station_ground = "5 ohm"')
+    _, tr = _run(FEED.format(extra=', isolation = "transformer"'))
+    _, bare = _run(FEED.format(extra=""))
+    assert tr["bev"].build["feed_line"]["noise_share_db"] < bare["bev"].build["feed_line"]["noise_share_db"] - 10
+    assert low["bev"].build["feed_line"]["noise_share_db"] != bare["bev"].build["feed_line"]["noise_share_db"]
+
+
+@pytest.mark.parametrize(
+    "feed, site, where, words",
+    [
+        (FEED.format(extra=', choke = "0 ohm"'), "", "feed_line.choke", "> 0 ohm"),
+        (FEED.format(extra=', choke = "-5 ohm"'), "", "feed_line.choke", "> 0 ohm"),
+        (
+            'feed_line = { to = ["0 m", "-300 m"], height = "1 m" }',
+            "lot = [[-200, -200], [200, -200], [200, 400], [-200, 400]]",
+            "feed_line.to",
+            "leaves the lot",
+        ),
+        ('feed_line = { to = ["0 m", "0 m"] }', "", "feed_line.height", "required"),
+        ('feed_line = { to = ["0 m", "0 m"], height = "1 m", cable = "RG-999" }', "", "feed_line.cable", "RG-6"),
+        ('feed_line = { to = ["0 m", "0 m"], height = "1 m", depth = "0.2 m" }', "", "feed_line", "buried"),
+        ('feed_line = { to = ["0 m", "0 m"], height = "1 m", isolation = "magic" }', "", "feed_line.isolation", ""),
+        ('feed_line = { to = ["0 m", "0 m"], height = "1 m", colour = "red" }', "", "feed_line.colour", ""),
+        ('feed_line = { to = ["0 m", "150 m"], height = "1 m" }', "", "feed_line", "at least 1 m"),
+        ("", 'station_ground = "0 ohm"', "site.station_ground", ""),
+    ],
+)
+def test_bad_input_names_the_field(feed, site, where, words):
+    with pytest.raises(ScenarioError) as exc:
+        snrgain.evaluate(SCEN.format(site=site, feed=feed))
+    text = str(exc.value)
+    assert where in text and words in text, text
+
+
+def test_feed_line_on_an_antenna_without_a_feed_ground_is_refused():
+    text = SCEN.format(site="", feed="").replace(
+        '[reference]\nfamily = "vertical"\nheight = "40 m"',
+        '[reference]\nfamily = "vertical"\nheight = "40 m"\nfeed_line = { to = [0, 0], height = "1 m" }',
+    )
+    with pytest.raises(ScenarioError, match="reference.feed_line"):
+        snrgain.evaluate(text)
+    text = SCEN.format(site="", feed="") + (
+        '\n[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\nposition = [50, 50]\n'
+        'feed_line = { to = [0, 0], height = "1 m" }\n'
+    )
+    with pytest.raises(ScenarioError, match=r"whip.*feed_line|feed_line.*vertical"):
+        snrgain.evaluate(text)
+
+
+def test_the_site_plan_draws_the_run():
+    from snrgain.outputs.siteplan import plan_of
+    from snrgain.scenario import load
+
+    sc = load(SCEN.format(site="", feed=FEED.format(extra="")))
+    runs = plan_of(sc)["feed_lines"]
+    assert [(n, [tuple(p) for p in r]) for n, r in runs] == [("bev", [(0.0, 150.0), (0.0, 0.0)])]
+    assert plan_of(load(SCEN.format(site="", feed="")))["feed_lines"] == []
