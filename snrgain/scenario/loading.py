@@ -31,6 +31,7 @@ from .noise import find_p372_dir, noise_settings
 from .receiver import chain_from_section, resolve_receiver
 from .site import Site, plan_from_latlon
 from .strong import resolve_stations, stage_limits
+from .structures import transmitting_vertical
 from .targets import resolve_targets
 from .times import resolve_times
 
@@ -95,35 +96,6 @@ def load(
         raise ScenarioError(label, problems)
     sc = assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
     return replace(sc, feed_lines=feed_lines) if feed_lines else sc
-
-
-def transmitting_vertical(given: str | None, built: Built, file_reference) -> tuple[str | None, list]:
-    """(the name of the site's transmitting vertical, problems): ``[site] transmitting`` when given (an antenna of
-    the scenario of the vertical family, or "none"), else the file's reference when it is a vertical (it stays the
-    vertical next door when ``--reference`` makes another antenna the reference)."""
-    if given is None:
-        ant = file_reference if file_reference is not None else built.antennas[0]
-        return (ant.name if ant.resonant_tx else None), []
-    if given.strip().lower() == "none":
-        return None, []
-    names = [a.name for a in built.antennas]
-    if given not in names:
-        return None, [
-            (
-                "site.transmitting",
-                f"no antenna named {given!r}; name the transmitting vertical among {', '.join(map(repr, names))}, "
-                "or 'none'",
-            )
-        ]
-    ant = built.antennas[names.index(given)]
-    if not ant.resonant_tx:
-        return None, [
-            (
-                "site.transmitting",
-                f"{given!r} is a {ant.family}, not a vertical: name an antenna of the vertical family",
-            )
-        ]
-    return given, []
 
 
 def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:

@@ -60,13 +60,11 @@ class SiteSection(StrictModel):
     longitude: Longitude
     ground: GroundField = "moist loam"
     lot: Outline | None = None
-    """The lot's outline on the site plan, [east, north] corners or { latlon = [...] } (the plan view, the placement
-    checks, layout)."""
+    """The lot's outline: [east, north] corners or { latlon = [...] } (plan view, placement checks, layout)."""
     keep_out: list[KeepOut] = Field(default_factory=list, max_length=64)
     """Areas no antenna may enter: the house, a road, the transmitting vertical's radial field."""
     transmitting: str | None = Field(default=None, min_length=1, max_length=120)
-    """The name of the antenna that is the station's transmitting vertical (the one next door: snrgain.model.scatter);
-    default the reference when it is a vertical; "none": the station has none on the plan."""
+    """The antenna that is the station's TX vertical (default: the reference if a vertical; "none": off the plan)."""
     tx_clearance: quantity("length", ge=0.0, le=2000.0) | None = None
     """How far receiving antennas must stay from the TX vertical [m], when given (else snrgain.model.scatter)."""
     tx_state: Literal["resonant", "detuned"] = "resonant"
@@ -137,8 +135,7 @@ class Site:
 
     @classmethod
     def of(cls, site: SiteSection, length_unit: str | None = None) -> Site:
-        """The resolved site of a validated [site] section (``length_unit``: the file's, else the section's
-        ``units`` or metres)."""
+        """The resolved site of a [site] section (``length_unit``: the file's, else the section's or metres)."""
         return cls(
             site.name,
             site.latitude,

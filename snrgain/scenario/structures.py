@@ -30,3 +30,32 @@ def check_detuning(tx_state: str, reactance_ohm: float | None) -> None:
             f"tx_detune_reactance: {reactance_ohm:g} ohm is given with tx_state = {tx_state!r}; a detuning "
             'reactance applies only with tx_state = "detuned"'
         )
+
+
+def transmitting_vertical(given: str | None, built, file_reference) -> tuple[str | None, list]:
+    """(the name of the site's transmitting vertical, problems): ``[site] transmitting`` when given (an antenna of
+    the scenario of the vertical family, or "none"), else the file's reference when it is a vertical (it stays the
+    vertical next door when ``--reference`` makes another antenna the reference)."""
+    if given is None:
+        ant = file_reference if file_reference is not None else built.antennas[0]
+        return (ant.name if ant.resonant_tx else None), []
+    if given.strip().lower() == "none":
+        return None, []
+    names = [a.name for a in built.antennas]
+    if given not in names:
+        return None, [
+            (
+                "site.transmitting",
+                f"no antenna named {given!r}; name the transmitting vertical among {', '.join(map(repr, names))}, "
+                "or 'none'",
+            )
+        ]
+    ant = built.antennas[names.index(given)]
+    if not ant.resonant_tx:
+        return None, [
+            (
+                "site.transmitting",
+                f"{given!r} is a {ant.family}, not a vertical: name an antenna of the vertical family",
+            )
+        ]
+    return given, []
