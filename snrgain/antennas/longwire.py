@@ -195,8 +195,9 @@ class SkyTermination:
         return getattr(self.params, "termination", None) == "auto" and getattr(self.params, "auto_for", None) == "snr"
 
     def termination_under_sky(self, freq_hz: float, score, target: str):
-        """The antenna with the resistor of highest ``score(variant)`` [dB] fixed: a sweep over SKY_SWEEP x |Z0|
-        and |Z0| itself, refined by a golden-section search in log R between the best point's neighbours."""
+        """The antenna with the resistor of highest score [dB] fixed: a sweep over SKY_SWEEP x |Z0| and |Z0| itself,
+        refined by a golden-section search in log R between the best point's neighbours.  ``score(variants)`` gives
+        the score of each of a list of variants (the sweep's in one call)."""
         from snrgain.antennas.base import variant
 
         matched = max(self.matched_termination_ohm(freq_hz), 1.0)
@@ -205,11 +206,12 @@ class SkyTermination:
         def value(r):
             r = float(r)
             if r not in tried:
-                tried[r] = float(score(variant(self, termination=r)))
+                tried[r] = float(score([variant(self, termination=r)])[0])
             return tried[r]
 
         values = sorted({*(matched * SKY_SWEEP), matched})
-        scores = [value(r) for r in values]
+        scores = [float(s) for s in score([variant(self, termination=float(r)) for r in values])]
+        tried.update(zip(map(float, values), scores))
         i = int(np.argmax(scores))
         lo, hi = values[max(i - 1, 0)], values[min(i + 1, len(values) - 1)]
         golden_max(lambda x: value(np.exp(x)), np.log(lo), np.log(hi), xtol=0.02, maxiter=8)
