@@ -42,10 +42,16 @@ def _upper(z: np.ndarray, n: int) -> np.ndarray:
     big_l, a = _coefficients(n)
     d = big_l - 1j * z
     zz = (big_l + 1j * z) / d
-    # p(Z) from Z's powers in two array operations (|Z| <= 1 in the upper half plane: the powers stay bounded),
-    # rather than Horner's loop of N small operations.
-    powers = np.cumprod(np.broadcast_to(zz[:, None], (zz.size, a.size - 1)), axis=1)
-    p = a[-1] + np.einsum("ij,j->i", powers, a[-2::-1])
+    if zz.size <= 100:
+        # a few points: p(Z) from Z's powers in two array operations (|Z| <= 1 in the upper half plane: the powers
+        # stay bounded), rather than Horner's loop of N operations on tiny arrays
+        powers = np.cumprod(np.broadcast_to(zz[:, None], (zz.size, a.size - 1)), axis=1)
+        p = a[-1] + np.einsum("ij,j->i", powers, a[-2::-1])
+    else:  # Horner, in place
+        p = np.full_like(zz, a[0])
+        for c in a[1:]:
+            p *= zz
+            p += c
     return 2.0 * p / (d * d) + 1.0 / (np.sqrt(np.pi) * d)
 
 

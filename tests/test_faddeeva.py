@@ -41,4 +41,6 @@ def test_published_values_and_identities():
     assert np.allclose(wofz(-np.conj(z)), np.conj(wofz(z)), rtol=1e-14, atol=0)
     assert np.ndim(wofz(1.0 + 1.0j)) == 0
     grid = np.array([[0.5 + 0.5j, -1.0 - 0.2j], [3.0j, 2.0]])
+    few = np.array([0.3 + 0.2j, 2.5 + 1e-3j])  # below and above the size where the polynomial changes method
+    assert np.allclose(wofz(few), wofz(np.tile(few, 200))[:2], rtol=1e-14, atol=0)
     assert wofz(grid).shape == (2, 2) and np.allclose(wofz(grid), scipy_wofz(grid), rtol=1e-13, atol=0)
