@@ -26,22 +26,22 @@ def _loaded_after(*commands) -> list[list[str]]:
 
 
 def test_help_and_check_load_no_slow_library():
-    # Targets given by bearing: --help and check need none of them.  A target given by place needs its geodesic
-    # (pyproj), and nothing else.
+    # Targets given by bearing or by place (the geodesic by Vincenty's inverse, snrgain.physics.geodesy): --help
+    # and check need none of them.
     help_, by_bearing, by_place = _loaded_after(
         ["--help"],
         ["check", str(SCENARIOS / "wren-corner.toml")],
         ["check", str(SCENARIOS / "alder-hollow.toml")],
     )
     assert help_ == [] and by_bearing == []
-    assert by_place == ["pyproj"]
+    assert by_place == []
 
 
 @needs_p372
-def test_rank_of_a_realistic_site_loads_only_the_geodesic():
+def test_rank_of_a_realistic_site_loads_only_the_storms_geodesic():
     # The realistic benchmark site (long wires over and on the ground, a placed source, the TX vertical as a
     # scatterer, targets by place, P.372 storms, no sky cache) ranks with numpy's own Bessel, Faddeeva and
-    # quadrature: of the slow libraries only pyproj, for the targets given by place.
+    # quadrature: of the slow libraries only pyproj, for the storms' geodesics (noisemodels.storms).
     (rank,) = _loaded_after(["rank", str(REPO / "benchmarks" / "realistic-site.toml")])
     assert rank == ["pyproj"]
 
