@@ -55,8 +55,10 @@ def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=No
     if same and strength_db is None and None not in rows and antennas[0] is known.antennas[0] and rows[0] == 0:
         by = known.temps.by_component[:, rows].copy()  # the sky rows are the gains' alone
         for name, share in shares.items():
+            # the reference's temperature from the source already holds the reference's own share (not 1 for a
+            # source measured elsewhere: pickup's measured_at scale): each antenna takes it times share / share[0]
             r = skies.names.index(name)
-            by[r] = known.temps.by_component[r, 0][None] * share[:, None, None]
+            by[r] = known.temps.by_component[r, 0][None] * (share / share[0])[:, None, None]
         temps = snr.Temperatures(by, by.sum(axis=0))
     else:
         temps = snr.sky_temperatures(gains, skies, pickup=shares, strength_db=strength_db)
