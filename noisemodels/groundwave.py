@@ -32,8 +32,9 @@ quasi-static image theory, from memory; attribution not verified); far out F tak
 Norton's surface wave, 1 / r^2 beyond the numerical distance 1.
 
 F(w) is evaluated with the Faddeeva function: exp(-w) erfc(j sqrt(w)) =
-wofz(-sqrt(w)) (scipy.special.wofz).  Published checks: F(0) = 1; for small
-|w|, F = 1 - j sqrt(pi w) - 2 w + ...; for large |w|, F -> -1 / (2 w) (the
+wofz(-sqrt(w)) (noisemodels.faddeeva.wofz, in numpy; checked against
+scipy.special.wofz).  Published checks: F(0) = 1; for small |w|,
+F = 1 - j sqrt(pi w) - 2 w + ...; for large |w|, F -> -1 / (2 w) (the
 Sommerfeld-Norton asymptote: the field then falls as 1 / r^2).
 
 Validity: distances from a few metres (the source's own size and height)
@@ -48,6 +49,7 @@ from __future__ import annotations
 import numpy as np
 
 from noisemodels.constants import C_M_PER_S, EPS0_F_PER_M
+from noisemodels.faddeeva import wofz
 
 
 def complex_permittivity(freq_hz: float, permittivity: float, conductivity_s_per_m: float) -> complex:
@@ -73,8 +75,6 @@ def numerical_distance(r_m, freq_hz: float, n2: complex, polarisation: str = "ve
 
 def attenuation(w):
     """Norton's attenuation function F(w) = 1 - j sqrt(pi w) exp(-w) erfc(j sqrt(w)) (complex)."""
-    from scipy.special import wofz  # imported here: scipy.special is slow to import
-
     w = np.asarray(w, dtype=complex)
     s = np.sqrt(w)
     return 1.0 - 1j * np.sqrt(np.pi) * s * wofz(-s)

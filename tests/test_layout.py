@@ -185,3 +185,55 @@ def test_layout_plot_with_a_phased_array_on_the_lot(tmp_path):
     res = CliRunner().invoke(cli, ["layout", str(path), "--plot", str(tmp_path / "plan.png")])
     assert res.exit_code == 0, res.output
     assert (tmp_path / "plan.png").stat().st_size > 10_000
+
+
+@pytest.mark.parametrize("name", FILES)
+def test_the_rules_worked_on_many_designs_at_once_match_one_by_one(name):
+    # violations_many (shapely's array functions) against violations (one design at a time) on a candidate's whole
+    # grid, with a fixed wire and a given TX clearance added so that every rule has designs that break it.
+    import copy
+
+    from snrgain.tools.layout import Design
+
+    data, _, base = read_source(DATA / name)
+    data = copy.deepcopy(data)
+    data["candidate"].append(
+        {
+            "name": "fixed wire",
+            "family": "beverage",
+            "length": "150 m",
+            "height": "2 m",
+            "bearing": 100,
+            "position": [0, 150],
+        }
+    )
+    data["site"]["tx_clearance"] = "30 m"
+    pb = Problem(load(data), data, base_dir=base)
+    for i in range(len(pb.names)):
+        pairs, points = pb.grid_designs(i)
+        designs = [Design(pb.names[i], e, n, b, ln) for b, ln in pairs[::3] for e, n in points]
+        one = [pb.violations(d) for d in designs]
+        assert pb.violations_many(designs) == one
+        assert any(one) and not all(one)
+
+
+def test_a_design_scored_through_its_unplaced_products_equals_a_fresh_evaluation():
+    # The fence charger of layout-vertical-and-bog.toml is measured away from the reference (measured_at), so the
+    # reference's own share of it is not 1: the temperatures reused from the unplaced design (products' known=)
+    # must carry each antenna's share relative to the reference's, as a fresh evaluation does.
+    from snrgain import pipeline
+    from snrgain.tools.layout import Design
+
+    pb = _problem(FILES[1])
+    assert any(s.measured_at_m is not None for s in pb.placed)
+    for i, pl in enumerate(pb.places):
+        b = np.radians(290.0) if pl.bearing is not None else None
+        ln = 70.0 if pl.length is not None else None
+        d = Design(pb.names[i], 80.0, 70.0, b, ln)
+        pb.design_products(i, b, ln)  # the unplaced design made first: the group path
+        via_known = pb.snr_gains_db([d], i)
+        ant = pb.antenna(i, b, ln).at((80.0, 70.0))
+        sub = pipeline.with_candidates(pb.sc, [ant], 1 + pb.index[i])
+        fresh = pipeline.products(sub, sub.antennas, pb.grid, pb.skies)
+        expected = pipeline.target_statistic(sub, pipeline.snr_gains(sub, fresh))[1, pb.target[i]]
+        assert via_known[0] == pytest.approx(expected - pb.tx_costs_db([ant])[0], abs=1e-9)

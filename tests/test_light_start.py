@@ -1,9 +1,10 @@
 """A light start: what the command line and ``import snrgain`` load and change (issue 25)."""
 
+import os
 import subprocess
 import sys
 
-from tests.conftest import REPO, SCENARIOS
+from tests.conftest import P372_DIR, REPO, SCENARIOS, needs_p372
 
 SLOW_TO_IMPORT = ("scipy.integrate", "scipy.special", "scipy.interpolate", "healpy", "matplotlib", "pyproj")
 
@@ -17,20 +18,32 @@ def _loaded_after(*commands) -> list[list[str]]:
             "assert r.exit_code == 0, r.output\n"
             f"print(sorted(m for m in {SLOW_TO_IMPORT!r} if m in sys.modules))\n"
         )
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO).stdout
+    env = {**os.environ, "SNRGAIN_P372_DIR": str(P372_DIR), "SNRGAIN_NO_CACHE": "1"}
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO, env=env
+    ).stdout
     return [eval(line) for line in out.strip().splitlines()]
 
 
 def test_help_and_check_load_no_slow_library():
-    # Targets given by bearing: --help and check need none of them.  A target given by place needs its geodesic
-    # (pyproj), and nothing else.
+    # Targets given by bearing or by place (the geodesic by Vincenty's inverse, snrgain.physics.geodesy): --help
+    # and check need none of them.
     help_, by_bearing, by_place = _loaded_after(
         ["--help"],
         ["check", str(SCENARIOS / "wren-corner.toml")],
         ["check", str(SCENARIOS / "alder-hollow.toml")],
     )
     assert help_ == [] and by_bearing == []
-    assert by_place == ["pyproj"]
+    assert by_place == []
+
+
+@needs_p372
+def test_rank_of_a_realistic_site_loads_only_the_storms_geodesic():
+    # The realistic benchmark site (long wires over and on the ground, a placed source, the TX vertical as a
+    # scatterer, targets by place, P.372 storms, no sky cache) ranks with numpy's own Bessel, Faddeeva and
+    # quadrature: of the slow libraries only pyproj, for the storms' geodesics (noisemodels.storms).
+    (rank,) = _loaded_after(["rank", str(REPO / "benchmarks" / "realistic-site.toml")])
+    assert rank == ["pyproj"]
 
 
 def test_import_snrgain_changes_no_process_setting():

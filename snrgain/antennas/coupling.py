@@ -71,30 +71,61 @@ def field_z(k: float, height_m: float, top_m: float, rho_m: float, z_m):
     return -1j * ETA0_OHM / (4 * np.pi * k) * bracket
 
 
+@lru_cache(maxsize=4)
+def _gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre nodes and weights on [-1, 1]: Newton's iteration on the Legendre recurrence from the
+    Chebyshev-like first guesses (W. H. Press et al., "Numerical Recipes", 3rd ed. (2007), Section 4.6.1)."""
+    x = np.cos(np.pi * (np.arange(1, n + 1) - 0.25) / (n + 0.5))
+    for _ in range(100):
+        p0, p1 = np.ones_like(x), x
+        for j in range(2, n + 1):
+            p0, p1 = p1, ((2 * j - 1) * x * p1 - (j - 1) * p0) / j
+        dp = n * (x * p1 - p0) / (x * x - 1)
+        step = p1 / dp
+        x = x - step
+        if np.max(np.abs(step)) < 1e-15:
+            break
+    p0, p1 = np.ones_like(x), x
+    for j in range(2, n + 1):
+        p0, p1 = p1, ((2 * j - 1) * x * p1 - (j - 1) * p0) / j
+    dp = n * (x * p1 - p0) / (x * x - 1)
+    return x, 2 / ((1 - x * x) * dp * dp)
+
+
+_NODES_PER_PANEL = 12
+
+
+def _panels(height_m: float, rho_m: float, wavelength_m: float) -> np.ndarray:
+    """Panel edges on [0, height_m] for the impedance integral: equal panels of at most an eighth of a wavelength
+    (and a quarter of the height), each end panel cut geometrically (ratio 2) down to ``rho_m``, where the
+    integrand's poles at z = +-j rho and h +- j rho sit (so every panel lies at least its own length from the
+    nearest pole, and Gauss-Legendre converges geometrically on each)."""
+    n = max(4, int(np.ceil(height_m / (wavelength_m / 8))))
+    edges = np.linspace(0.0, height_m, n + 1)
+    first = edges[1]
+    grade = rho_m * 2.0 ** np.arange(0, 64)
+    grade = grade[grade < first]
+    return np.unique(np.concatenate([edges, grade, height_m - grade]))
+
+
 @lru_cache(maxsize=512)
 def monopole_impedance(freq_hz: float, height_m: float, top_m: float, rho_m: float) -> complex:
     """Mutual impedance [ohm] between two equal monopoles ``rho_m`` apart over a perfect ground, referred to their
-    base currents; with ``rho_m`` the wire radius, the self impedance."""
+    base currents; with ``rho_m`` the wire radius, the self impedance.
+
+    The integral of E_z21 I over the height by Gauss-Legendre on panels graded toward both ends (``_panels``); it
+    agrees with adaptive quadrature to 1e-9 relative (tests/test_coupling.py)."""
     k = 2 * np.pi * freq_hz / C_M_PER_S
     big_h = height_m + top_m
     i_b = np.sin(k * big_h)
     if abs(i_b) < 1e-6:
         raise ValueError("coupling: the base current vanishes (an element a half wave long); no impedance to give")
-
-    def integrand(z, part):
-        v = field_z(k, height_m, top_m, rho_m, z) * np.sin(k * (big_h - z))
-        return v.real if part == 0 else v.imag
-
-    from scipy import integrate  # slow to import: here, when needed
-
-    # The integrand is sharp within a few radii of the base and the top: split there.
-    edge = min(50 * rho_m, 0.25 * height_m)
-    pts = [0.0, edge, height_m - edge, height_m]
-    total = 0j
-    for a, b in zip(pts[:-1], pts[1:]):
-        re = integrate.quad(integrand, a, b, args=(0,), limit=200, epsabs=1e-9, epsrel=1e-9)[0]
-        im = integrate.quad(integrand, a, b, args=(1,), limit=200, epsabs=1e-9, epsrel=1e-9)[0]
-        total += re + 1j * im
+    x, w = _gauss_legendre(_NODES_PER_PANEL)
+    edges = _panels(height_m, rho_m, 2 * np.pi / k)
+    a, b = edges[:-1, None], edges[1:, None]
+    z = (0.5 * (b - a) * x + 0.5 * (a + b)).ravel()
+    wz = (0.5 * (b - a) * w).ravel()
+    total = np.sum(wz * field_z(k, height_m, top_m, rho_m, z) * np.sin(k * (big_h - z)))
     return complex(-total / i_b**2)
 
 

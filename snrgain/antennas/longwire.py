@@ -146,7 +146,10 @@ def golden_max(f, lo: float, hi: float, *, xtol: float, maxiter: int = 40) -> tu
 def best_resistor(figure, values_ohm=RESISTOR_SWEEP_OHM) -> float:
     """The resistor [ohm] that maximises ``figure(r)``: the best of a coarse sweep, refined by a golden-section
     search in log R between its neighbours (to about 0.5 %)."""
-    values = [float(figure(r)) for r in values_ohm]
+    if getattr(figure, "vectorised", False):  # the whole sweep in one call
+        values = [float(v) for v in figure(np.asarray(values_ohm, dtype=float))]
+    else:
+        values = [float(figure(r)) for r in values_ohm]
     i = int(np.argmax(values))
     lo, hi = values_ohm[max(i - 1, 0)], values_ohm[min(i + 1, len(values_ohm) - 1)]
     x, fx = golden_max(lambda x: float(figure(np.exp(x))), np.log(lo), np.log(hi), xtol=0.005)
@@ -164,14 +167,16 @@ def termination_figure(pattern, bearing_rad: float, elevation_rad: float, metric
     el = np.array([elevation_rad])
     fwd = np.array([bearing_rad])
 
-    def figure(r):
-        f = pattern(fwd, el, float(r))[0]
-        if metric == "rdf":
-            return f / (
-                np.dot(pattern(grid.azimuth_rad, grid.elevation_rad, float(r)), grid.solid_angle_sr) / (4 * np.pi)
-            )
-        return f / max(pattern(fwd + np.pi, el, float(r))[0], 1e-300)
+    vectorised = getattr(pattern, "vectorised", False)  # pattern(az, el, r) takes an array of r
 
+    def figure(r):
+        r = np.asarray(r, dtype=float) if vectorised else float(r)
+        f = pattern(fwd, el, r)[..., 0]
+        if metric == "rdf":
+            return f / (np.dot(pattern(grid.azimuth_rad, grid.elevation_rad, r), grid.solid_angle_sr) / (4 * np.pi))
+        return f / np.maximum(pattern(fwd + np.pi, el, r)[..., 0], 1e-300)
+
+    figure.vectorised = vectorised
     return figure
 
 
@@ -195,8 +200,9 @@ class SkyTermination:
         return getattr(self.params, "termination", None) == "auto" and getattr(self.params, "auto_for", None) == "snr"
 
     def termination_under_sky(self, freq_hz: float, score, target: str):
-        """The antenna with the resistor of highest ``score(variant)`` [dB] fixed: a sweep over SKY_SWEEP x |Z0|
-        and |Z0| itself, refined by a golden-section search in log R between the best point's neighbours."""
+        """The antenna with the resistor of highest score [dB] fixed: a sweep over SKY_SWEEP x |Z0| and |Z0| itself,
+        refined by a golden-section search in log R between the best point's neighbours.  ``score(variants)`` gives
+        the score of each of a list of variants (the sweep's in one call)."""
         from snrgain.antennas.base import variant
 
         matched = max(self.matched_termination_ohm(freq_hz), 1.0)
@@ -205,11 +211,12 @@ class SkyTermination:
         def value(r):
             r = float(r)
             if r not in tried:
-                tried[r] = float(score(variant(self, termination=r)))
+                tried[r] = float(score([variant(self, termination=r)])[0])
             return tried[r]
 
         values = sorted({*(matched * SKY_SWEEP), matched})
-        scores = [value(r) for r in values]
+        scores = [float(s) for s in score([variant(self, termination=float(r)) for r in values])]
+        tried.update(zip(map(float, values), scores))
         i = int(np.argmax(scores))
         lo, hi = values[max(i - 1, 0)], values[min(i + 1, len(values) - 1)]
         golden_max(lambda x: value(np.exp(x)), np.log(lo), np.log(hi), xtol=0.02, maxiter=8)
@@ -385,6 +392,39 @@ def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
     return w.c_u * (seg + w.r_v * np.conj(seg))
 
 
+def _line_integrals(w: PlaneWave, g: complex, L: float):
+    """The line's integrals of the distributed EMF (module docstring), shared by :func:`line_currents` and
+    :func:`feed_current_forms`: (jkc, e^{-2gL}, e^{-gL}, cosh and sinh scaled by e^{-gL}, e^{jkcL}, J+, J-)."""
+    jkc = 1j * w.k * w.along
+    e2 = np.exp(-2 * g * L)
+    eg = np.exp(-g * L)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    phase_l = np.exp((1j * w.k * L) * w.along)  # e^{jkcL}: the one transcendental per direction
+    decay = phase_l * eg  # e^{(jkc - g) L}
+    if g.real > 0:
+        j_plus = (decay - 1.0) / (jkc - g)  # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
+    else:  # a lossless line (measured constants): jkc - g can vanish end-on
+        j_plus = safe_expint(jkc - g, L)
+    j_minus = (decay - e2) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
+    return jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus
+
+
+def feed_current_forms(
+    w: PlaneWave, *, line: lines.LineConstants, length_m: float, z_feed: complex, drive_v, drive_h, v_end
+):
+    """The feed currents of :func:`line_currents` as functions of the far load Z: I_F = (A + Z B) / (D0 + Z D1), per
+    polarization, with A and B per direction and D0, D1 one number each (the line's denominator is linear in Z, and
+    so are the numerators).  Returns ((A_v, B_v), (A_h, B_h), (D0, D1)), for a search over the termination that
+    forms the wave once."""
+    g, z0, L = line.gamma, line.z0, length_m
+    _, _, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, L)
+    d0 = z0 * z_feed * ch + z0**2 * sh
+    d1 = z0 * ch + z_feed * sh
+    q0, q1 = 0.5 * z0 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
+    e0, e1 = v_end * (z0 * ch - z0 * eg * phase_l), v_end * sh
+    return (drive_v * q0 + e0, drive_v * q1 + e1), (drive_h * q0, drive_h * q1), (d0, d1)
+
+
 def line_currents(
     w: PlaneWave,
     *,
@@ -406,17 +446,7 @@ def line_currents(
     and serve both polarizations.  Returns ((I_F v, I_F h), (I_R v, I_R h) or None).
     """
     g, z0, L = line.gamma, line.z0, length_m
-    jkc = 1j * w.k * w.along
-    e2 = np.exp(-2 * g * L)
-    eg = np.exp(-g * L)
-    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-    phase_l = np.exp((1j * w.k * L) * w.along)  # e^{jkcL}: the one transcendental per direction
-    decay = phase_l * eg  # e^{(jkc - g) L}
-    if g.real > 0:
-        j_plus = (decay - 1.0) / (jkc - g)  # e^{-gL} int e^{jkcx} e^{g(L-x)} dx
-    else:  # a lossless line (measured constants): jkc - g can vanish end-on
-        j_plus = safe_expint(jkc - g, L)
-    j_minus = (decay - e2) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{-g(L-x)} dx
+    jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, L)
     if z_far is None:
         denom = z0 * ch + z_feed * sh
         q = (0.5 / denom) * (j_plus - j_minus)  # i_sinh / denom
@@ -539,11 +569,35 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         if not self.terminated:
             return None
         z_feed = abs(self.line(freq_hz).z0) + self.feed_rod_ohm
+        far_rod = self.far_rod_ohm
+        forms: dict[tuple, tuple] = {}  # the wave's part, formed once per set of directions
 
         def pattern(az, el, r):
-            (iv, ih), _ = self._feed_currents(freq_hz, az, el, z_feed, r + self.far_rod_ohm)
-            return np.where(above_horizon(el), _power(iv) + _power(ih), 0.0)
+            az, el = np.asarray(az, dtype=float), np.asarray(el, dtype=float)
+            key = (az.tobytes(), el.tobytes())
+            hit = forms.get(key)
+            if hit is None:
+                w = plane_wave(freq_hz, az, el, bearing_rad=self.bearing_rad, ground=self.ground)
+                f_v, f_h = field_along_wire(w, self.wire_height_m())
+                lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
+                hit = forms[key] = (
+                    *feed_current_forms(
+                        w,
+                        line=self.line(freq_hz),
+                        length_m=self.length_m,
+                        z_feed=z_feed,
+                        drive_v=-w.cos_dphi * f_v[w.inv],
+                        drive_h=-w.sin_dphi * f_h[w.inv],
+                        v_end=lead,
+                    ),
+                    above_horizon(el),
+                )
+            (av, bv), (ah, bh), (d0, d1), above = hit
+            z = np.asarray(r, dtype=float)[..., None] + far_rod  # several resistors at once: (resistors, directions)
+            p = (_power(av + z * bv) + _power(ah + z * bh)) / _power(d0 + z * d1)
+            return np.where(above, p, 0.0)
 
+        pattern.vectorised = True
         return pattern
 
     def matched_termination_ohm(self, freq_hz: float) -> float | None:

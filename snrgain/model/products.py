@@ -60,8 +60,9 @@ def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=No
     if fl is None and reuse:  # feed lines move with their antennas: their part is worked anew
         by = known.temps.by_component[:, rows].copy()  # the sky rows are the gains' alone
         for name, share in shares.items():
+            # the reference's temperature from the source already holds the reference's own share (not 1 for a
+            # source measured elsewhere: pickup's measured_at scale): each antenna takes it times share / share[0]
             r = skies.names.index(name)
-            # the reference's temperature already holds its own share (not 1 for a level measured elsewhere)
             by[r] = known.temps.by_component[r, 0][None] * (share / share[0])[:, None, None]
         temps = snr.Temperatures(by, by.sum(axis=0))
     else:

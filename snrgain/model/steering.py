@@ -94,7 +94,9 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
             ants[k] = put(
                 bare(ant).termination_under_sky(
                     sc.freq_hz,
-                    lambda a, ref=ref, k=k, ti=ti, put=put: _median_gain(sc, grid, skies, ref, put(a), k, ti),
+                    lambda variants, ref=ref, k=k, ti=ti, put=put: _median_gains(
+                        sc, grid, skies, ref, [put(a) for a in variants], k, ti
+                    ),
                     sc.targets[ti].name,
                 )
             )
@@ -112,14 +114,16 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
                 choices.append(alone)
             if ref is None:
                 ref = products(sc, [ants[0]], grid, skies)
-            ants[k] = max(choices, key=lambda a: _median_gain(sc, grid, skies, ref, a, k, ti))
+            ants[k] = choices[int(np.argmax(_median_gains(sc, grid, skies, ref, choices, k, ti)))]
         else:
             ants[k] = choices[0]
     return with_antennas(sc, repoint(ants, old))
 
 
-def _median_gain(sc: Scenario, grid, skies, ref: Products, ant, k: int, ti: int) -> float:
-    """Antenna ``ant``'s (candidate ``k``'s) statistic toward target ``ti`` without the spreads [dB]."""
-    sub = with_candidates(sc, [ant], k)
-    p = products(sub, [ref.antennas[0], ant], grid, skies, known=ref)
-    return float(target_statistic(sub, snr_gains(sub, p))[1, ti])
+def _median_gains(sc: Scenario, grid, skies, ref: Products, ants, k: int, ti: int) -> np.ndarray:
+    """Each of ``ants``' (designs of candidate ``k``) statistic toward target ``ti`` without the spreads [dB], all in
+    one pass of the products."""
+    ants = list(ants)
+    sub = with_candidates(sc, ants, k)
+    p = products(sub, [ref.antennas[0], *ants], grid, skies, known=ref)
+    return target_statistic(sub, snr_gains(sub, p))[1:, ti]

@@ -158,9 +158,9 @@ def wire_internal_impedance(freq_hz, radius_m, conductivity_s_per_m=COPPER_S_PER
     delta = np.sqrt(2.0 / (omega * MU0_H_PER_M * conductivity_s_per_m))
     k = (1 - 1j) / delta
     ka = k * radius_m
-    from scipy.special import jve  # imported here: scipy.special is slow to import
+    from snrgain.physics.bessel import j0_over_j1
 
-    ratio = jve(0, ka) / jve(1, ka)  # the exponential scaling cancels in the ratio
+    ratio = j0_over_j1(ka)
     return complex(k / (2 * np.pi * radius_m * conductivity_s_per_m) * ratio)
 
 

@@ -136,9 +136,9 @@ def _image_term(gamma, k0, radius_m, height_m) -> complex:
     far = np.hypot(radius_m, 2 * height_m)
     if abs(kap) * far < 1e-8:
         return complex(np.log(far / radius_m))
-    from scipy.special import kv
+    from snrgain.physics.bessel import k0 as bessel_k0
 
-    return complex(kv(0, kap * radius_m) - kv(0, kap * far))
+    return bessel_k0(kap * radius_m) - bessel_k0(kap * far)
 
 
 @lru_cache(maxsize=256)
@@ -237,7 +237,7 @@ def wire_in_earth(
     medium of R. W. P. King's theory (King, Smith, Owens and Wu, "Antennas in Matter", MIT Press 1981, in its
     thin-insulation form; cited from memory and not verified, so the tests' comparison with it is a consistency
     check, not an independent one)."""
-    from scipy.special import kv
+    from snrgain.physics.bessel import k0 as bessel_k0
 
     omega = 2 * np.pi * freq_hz
     k0 = omega / C_M_PER_S
@@ -247,7 +247,7 @@ def wire_in_earth(
     gamma = complex(gamma_start)
     for step in range(120):
         kap1 = _sqrt_re(-(gamma**2 + n2 * k0**2))
-        k0b = complex(kv(0, kap1 * b))
+        k0b = bessel_k0(kap1 * b)
         r_h, r_e = buried_integrals(gamma, freq_hz, depth_m, n2, offset_m=b)
         z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (layer + k0b + r_h)
         y = 2j * np.pi * omega * EPS0_F_PER_M / (layer / insulation_permittivity + k0b / n2 + r_e)

@@ -3,8 +3,9 @@
 A target is a small set of directions with weights adding to 1.  Given as a
 bearing with an elevation range, the range is sampled every degree.  Given as
 a place (latitude, longitude), the great-circle bearing and distance come
-from the WGS-84 ellipsoid (pyproj.Geod, C. F. F. Karney, "Algorithms for
-geodesics", J. Geodesy 87, 43 (2013)), and the arrival elevations from
+from the WGS-84 ellipsoid (Vincenty's inverse, snrgain.physics.geodesy,
+checked against pyproj.Geod: C. F. F. Karney, "Algorithms for geodesics",
+J. Geodesy 87, 43 (2013)), and the arrival elevations from
 sky-wave hop geometry over a spherical earth with a mirror-reflecting layer
 at a stated height:
 
@@ -82,10 +83,17 @@ def from_bearing(
 
 
 def geodesic(lat1_deg, lon1_deg, lat2_deg, lon2_deg) -> tuple[float, float]:
-    """(initial bearing [rad, compass], distance [m]) from point 1 to point 2 on WGS-84."""
-    from pyproj import Geod
+    """(initial bearing [rad, compass], distance [m]) from point 1 to point 2 on WGS-84: Vincenty's inverse
+    (snrgain.physics.geodesy, no import of pyproj), pyproj's for the nearly antipodal points it does not reach."""
+    from snrgain.physics.geodesy import inverse
 
-    az, _, dist = Geod(ellps="WGS84").inv(lon1_deg, lat1_deg, lon2_deg, lat2_deg)
+    found = inverse(float(lat1_deg), float(lon1_deg), float(lat2_deg), float(lon2_deg))
+    if found is not None:
+        az, dist = found
+    else:
+        from pyproj import Geod
+
+        az, _, dist = Geod(ellps="WGS84").inv(lon1_deg, lat1_deg, lon2_deg, lat2_deg)
     return float(np.mod(np.radians(az), 2 * np.pi)), float(dist)
 
 
