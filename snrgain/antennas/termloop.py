@@ -172,8 +172,14 @@ def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
     halves [F] and the height of their charge moment [m], over a ground whose static image has the factor
     ``image`` (-1 a perfect conductor).  Thin-wire moment solution: uniform charge (current) on each segment,
     potential matched at the centres (on the wire's surface).  The potential matrix is P0 + image P1 (the wire's
-    own and its image's), so :func:`_loop_matrices` builds both once per outline and each ground only solves."""
-    inductance, p_own, p_image, heights, nu = _loop_matrices(_key(upper), _key(lower), float(radius_m))
+    own and its image's), so :func:`_loop_matrices` builds both once per outline and each ground only solves, once:
+    the same outline over the same ground (every resistor tried, every ground of the spread) reuses the answer."""
+    return _loop_constants(_key(upper), _key(lower), float(radius_m), float(image))
+
+
+@functools.lru_cache(maxsize=256)
+def _loop_constants(upper: tuple, lower: tuple, radius_m: float, image: float):
+    inductance, p_own, p_image, heights, nu = _loop_matrices(upper, lower, radius_m)
     p = (p_own + image * p_image) / (4 * np.pi * EPS0_F_PER_M)
     n = len(heights)
     unit = np.zeros((n, 2))

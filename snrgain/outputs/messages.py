@@ -74,10 +74,14 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "wires-cross":
         return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
     if n.code == "near-tx-vertical":
-        how = "your clearance" if v.get("given", True) else "half a wavelength: its coupling is not computed for this"
+        how = (
+            "your tx_clearance"
+            if v.get("given", True)
+            else "half a wavelength: its coupling is not computed for this antenna"
+        )
         return (
             f"{n.antenna}: comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
-            f"{length_text(v['clearance_m'], unit, 0)}, {how} antenna): a resonant vertical nearby re-radiates what "
+            f"{length_text(v['clearance_m'], unit, 0)}, {how}): a resonant vertical nearby re-radiates what "
             "it receives and distorts the pattern; detuning it while receiving (opening its feed, or a detuning "
             "network) is the usual cure" + (_DETUNE_CAUTION if not v.get("given", True) else "")
         )
