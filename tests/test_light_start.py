@@ -106,3 +106,24 @@ def test_physical_constants_are_scipys_and_written_once():
         if literal.search(p.read_text())
     ]
     assert writers == ["noisemodels/constants.py"]
+
+
+def test_the_command_line_asks_blas_for_one_thread_unless_the_user_chose():
+    # Process-wide, so only the command line's package does it, before numpy loads; a user's own setting wins and
+    # ``import snrgain`` alone leaves the environment as it is.
+    code = "import os, sys\n{first}\nimport numpy\nprint(os.environ.get('OPENBLAS_NUM_THREADS'))\n"
+    base = {k: v for k, v in os.environ.items() if k not in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")}
+
+    def run(first, **extra):
+        return subprocess.run(
+            [sys.executable, "-c", code.format(first=first)],
+            capture_output=True,
+            text=True,
+            check=True,
+            cwd=REPO,
+            env={**base, **extra},
+        ).stdout.strip()
+
+    assert run("import snrgain.cli") == "1"
+    assert run("import snrgain.cli", OPENBLAS_NUM_THREADS="2") == "2"
+    assert run("import snrgain") == "None"
