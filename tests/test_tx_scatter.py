@@ -306,6 +306,24 @@ def test_layout_places_by_the_computed_cost_not_a_radius():
     assert all(np.hypot(d.east_m, d.north_m) >= 30.0 - 1e-6 for d in pr_hard.feasible(0))
 
 
+def test_the_layout_shown_is_what_the_ranking_gives_the_placed_flag():
+    """The search scores by the RDF the vertical costs; the layout it shows gives each antenna its SNR gain as the
+    ranking gives the file with the flag placed there (beside the vertical): one answer."""
+    import tomllib
+
+    import snrgain
+    from snrgain.scenario import load
+    from snrgain.tools.layout import Problem
+
+    text = LAYOUT_LOT.format(extra="")
+    pr = Problem(load(text), tomllib.loads(text))
+    best = pr.search(keep=1)[0]
+    d = best.designs[0]
+    placed = text.replace("place = {}", f"position = [{d.east_m!r}, {d.north_m!r}]")
+    ranked = snrgain.evaluate(placed).antenna("flag")
+    assert best.snr_gain_db[0] == pytest.approx(float(ranked.snr_gain_nominal_db[0]), abs=1e-6)
+
+
 def _beverage(gname="lossy"):
     b = REF["beverage"]
     return from_spec(

@@ -205,14 +205,17 @@ class Problem:
             None if length_m is None else round(float(length_m), 6),
         )
 
-    def snr_gains_db(self, designs: list[Design], i: int) -> np.ndarray:
+    def snr_gains_db(self, designs: list[Design], i: int, *, exact: bool = False) -> np.ndarray:
         """Candidate i's SNR gain [dB] over the reference toward its target for designs sharing one bearing and
         length (one design at many places), each standing at its place: the ranking's statistic (the median over
-        the target's hours), without the spreads, through the same stages at once."""
+        the target's hours), without the spreads, through the same stages at once.  The search takes what the
+        vertical and the structures do as the RDF they cost (:meth:`tx_costs_db`, a design's far field reused at
+        every place); ``exact``: as the ranking hears them, the antenna standing beside them
+        (snrgain.model.scatter.beside), which the layouts shown are given."""
         from snrgain import pipeline
 
         if self.switched[i]:
-            return self.switched_gains_db(designs, i)
+            return self.switched_gains_db(designs, i, exact=exact)
         d0 = designs[0]
         if len(designs) == 1 and self._key(i, d0.bearing_rad, d0.length_m) not in self._sky:
             # One new design at one place (the refinement's steps): its products made once where it stands, not
@@ -222,10 +225,23 @@ class Problem:
         else:
             ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m)
             ants = [ant0.at((d.east_m, d.north_m)) for d in designs]
+        if exact:
+            return self.ranked_gains_db(ants, i)[:, self.target[i][0]]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
         gains = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i][0]]
         return gains - self.tx_costs_db(ants)
+
+    def ranked_gains_db(self, ants, i: int) -> np.ndarray:
+        """(antennas, targets): the placed antennas' statistic through the ranking's own stages, each beside the
+        site's scatterers and set under the sky (its resistor chosen there): what ``rank`` of the file with them
+        placed gives."""
+        from snrgain import pipeline
+
+        sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
+        sub = pipeline.steer(pipeline.with_structures(sub), self.grid, self.skies)
+        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+        return pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :]
 
     def states_at(self, i: int, d: Design) -> list:
         """Switched candidate i's states standing at design ``d``: each at its feed point, a reversed wire's other
@@ -243,7 +259,7 @@ class Problem:
             out.append(a.at(pos))
         return out
 
-    def switched_gains_db(self, designs: list[Design], i: int) -> np.ndarray:
+    def switched_gains_db(self, designs: list[Design], i: int, *, exact: bool = False) -> np.ndarray:
         """Switched candidate i's worth [dB] at each design: over its targets, each target's SNR gain (the ranking's
         statistic, less what the TX vertical costs that state where it stands) in its best state, averaged as power
         ratios."""
@@ -256,9 +272,12 @@ class Problem:
             sub = pipeline.with_candidates(self.sc, states, 1 + self.index[i])
             known = self._sky[key] = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
         ants = [a for d in designs for a in self.states_at(i, d)]
-        sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
-        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
-        g = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :] - self.tx_costs_db(ants)[:, None]
+        if exact:
+            g = self.ranked_gains_db(ants, i)
+        else:
+            sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
+            p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+            g = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :] - self.tx_costs_db(ants)[:, None]
         best = g.reshape(len(designs), len(self.members[i]), -1)[:, :, list(self.target[i])].max(axis=1)
         return 10 * np.log10(np.mean(10 ** (best / 10), axis=1))
 
@@ -282,9 +301,9 @@ class Problem:
                 total += [0.0 if c is None else c["cost_db"] for c in costs]
         return total
 
-    def snr_gain_db(self, d: Design, i: int) -> float:
+    def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
         """:meth:`snr_gains_db` of one design."""
-        return float(self.snr_gains_db([d], i)[0])
+        return float(self.snr_gains_db([d], i, exact=exact)[0])
 
     # -- geometry -----------------------------------------------------------------------------------------------
 
@@ -483,9 +502,10 @@ class Problem:
         return layouts
 
     def _layout(self, designs) -> Layout:
+        """The layout of ``designs`` with each one's SNR gain as the ranking gives it (``exact``)."""
         return Layout(
             tuple(designs),
-            tuple(self.snr_gain_db(d, i) for i, d in enumerate(designs)),
+            tuple(self.snr_gain_db(d, i, exact=True) for i, d in enumerate(designs)),
             tuple(", ".join(self.sc.targets[t].name for t in self.target[i]) for i in range(len(designs))),
         )
 
