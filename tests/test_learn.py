@@ -47,10 +47,10 @@ def _logs(tmp_path, truth_db: float, seed: int, stations: int = 3):
 
 def test_known_offset_recovered_within_tolerance(tmp_path):
     """Logs synthesised from the pipeline's A - B at a known offset (2 stations per target and hour, decoder
-    scatter, fading, dropouts, one-sided stations): over 10 seeded trials the reported 90 % tolerance covers the
-    truth in at least 8, and the fit is never more than 1 dB off."""
+    scatter, fading, dropouts, one-sided stations): over 6 seeded trials the reported 90 % tolerance covers the
+    truth in at least 5, and the fit is never more than 1 dB off."""
     covered = 0
-    for seed in range(10):
+    for seed in range(6):
         truth = float(np.random.default_rng(seed).uniform(-10.0, 6.0))
         pa, pb = _logs(tmp_path, truth, seed=seed, stations=2)
         r = vf.verify(WREN, a_name=A, b_name=B, log_a=pa, log_b=pb, n_boot=500, seed=seed, predict_too=False)
@@ -59,7 +59,7 @@ def test_known_offset_recovered_within_tolerance(tmp_path):
         assert abs(f.offset_db - truth) < 1.0, (truth, f.offset_db)
         assert f.rms_after_db <= f.rms_before_db + 1e-9
         covered += abs(f.offset_db - truth) <= f.tolerance_db
-    assert covered >= 8, covered
+    assert covered >= 5, covered
 
 
 def test_pairs_that_cannot_tell_the_level_say_so(tmp_path):

@@ -247,6 +247,22 @@ LAND_GROUNDS = (
 """The named ground classes a site on land may be (snrgain.physics.ground.GROUND_TYPES less the waters)."""
 
 
+def nominal_only(data: dict) -> dict:
+    """The scenario's tables without the spreads: a fit reads the nominal SNR gains per hour, which the spreads do
+    not change (the same to the last bit, measured), at a third of the run's time."""
+    import copy
+
+    d = copy.deepcopy(data)
+    d["uncertainty"] = {
+        **d.get("uncertainty", {}),
+        "ground": False,
+        "noise_deciles": False,
+        "local_sources": False,
+        "hours": False,
+    }
+    return d
+
+
 def with_ground(data: dict, ground: str) -> dict:
     """A deep copy of the scenario's tables with ``[site] ground`` set to a named class."""
     d = copy.deepcopy(data)
@@ -365,7 +381,7 @@ def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> di
         key = (id(d0), round(float(off), 3))
         if key not in cache:
             d = scenario_copy(with_offset(d0, key[1]), result.a, result.b, result.months, [h + 0.5 for h in hours])
-            res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
+            res = evaluate(load(nominal_only(d), base_dir=base_dir, label=label, p372_dir=p372_dir))
             diff = _hourly_difference(res, result.a, result.b)
             cache[key] = np.array([diff[(g.target, g.hour)] for g in groups])
         return cache[key]
