@@ -552,6 +552,19 @@ def _in_process(study, chunks):
         yield len(block), run_designs(study, block)
 
 
+def _reachable(address: str, timeout_s: float) -> None:
+    """OSError when a tcp:// scheduler address refuses a connection or does not answer within ``timeout_s``;
+    other forms (tls://, a bare host) are left to the client."""
+    import socket
+    from urllib.parse import urlsplit
+
+    parts = urlsplit(address)
+    if parts.scheme != "tcp" or parts.hostname is None or parts.port is None:
+        return
+    with socket.create_connection((parts.hostname, parts.port), timeout=timeout_s):
+        pass
+
+
 def connect(address: str, *, timeout_s: float = 8.0):
     """A Dask client: a LocalCluster of two single-threaded workers for "local", else the scheduler at
     ``address``; ValueError naming --dask when it cannot be reached within ``timeout_s``."""
@@ -563,6 +576,7 @@ def connect(address: str, *, timeout_s: float = 8.0):
         cluster = LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None)
         return Client(cluster)
     try:
+        _reachable(address, timeout_s)  # a refused port says so at once (the client would retry to its timeout)
         return Client(address, timeout=f"{timeout_s}s")
     except (OSError, TimeoutError) as exc:
         raise ValueError(
