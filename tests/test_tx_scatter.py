@@ -560,3 +560,24 @@ def test_every_computed_antenna_says_what_the_vertical_does_to_it():
     notice = next(n for n in r.notices if n.code == "tx-vertical-cost")
     assert notice.antenna == "flag near" and rows["flag near"]["cost_db"] == pytest.approx(notice.values["cost_db"])
     assert rows["flag far"]["cost_db"] < rows["flag near"]["cost_db"]
+
+
+def test_the_costs_of_many_places_at_once_equal_one_by_one():
+    """layout's batch of a design's places (model.scatter.tx_costs_db) equals tx_cost place by place, for a flag,
+    a Beverage (through its line model) and a pair, resonant and with a detuning reactance."""
+    from snrgain.model.scatter import tx_cost, tx_costs_db, tx_vertical, wire_terms
+    from snrgain.scenario import load
+
+    text = SMALL_LOT.format(extra="")
+    text += '\n[[candidate]]\nname = "bev"\nfamily = "beverage"\nlength = "150 m"\nheight = "2 m"\nbearing = 80\n'
+    text += "position = [5, -20]\n"
+    for extra in ("", 'tx_state = "detuned"\ntx_detune_reactance = "-300 ohm"'):
+        sc = load(text.replace('name = "small lot"', f'name = "small lot"\n{extra}'))
+        tx = tx_vertical(sc)
+        by = {a.name: a for a in sc.candidates}
+        places = [(-4.25, 20.0), (12.0, -9.0), (30.0, 5.0), (-8.0, -12.0)]
+        for name in ("flag near", "bev", "pair"):
+            ants = [by[name].at(p) for p in places] if name != "pair" else [by[name]]
+            one = [tx_cost(sc, a, tx=tx) for a in ants]
+            many = tx_costs_db(sc, ants, tx, wire_terms(sc, ants, tx))
+            np.testing.assert_allclose(many, [c["cost_db"] for c in one], atol=1e-9)

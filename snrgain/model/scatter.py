@@ -166,6 +166,60 @@ def _alone(antenna, freq_hz: float):
     return out
 
 
+def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
+    """:func:`tx_cost`'s cost_db (the RDF the scatterer, in its own state, takes) of each of ``antennas``, 0 where it
+    is not computed: the places of one design worked at once (its response alone is the same at every place; the
+    re-radiated part differs by a complex factor and a phase per place).  ``terms``: each one's coupling terms
+    when already worked (:func:`wire_terms`), or None.  Equal to tx_cost one by one (a test)."""
+    f = sc.freq_hz
+    out = np.zeros(len(antennas))
+    terms = list(terms) if terms is not None else [None] * len(antennas)
+    if tx.load_ohm is None:
+        return out  # an open base re-radiates nothing in this model
+    try:
+        phys.check_height(tx, f)
+    except ValueError:
+        return out
+    groups: dict = {}
+    for k, a in enumerate(antennas):
+        b = bare(a)
+        if not modelled(b):
+            continue
+        key = b.gain_key()
+        if key is None:
+            c = tx_cost(sc, a, tx=tx, terms=terms[k])
+            out[k] = 0.0 if c is None else c["cost_db"]
+            continue
+        groups.setdefault(key, []).append(k)
+    k_wave = 2 * np.pi * f / phys.C_M_PER_S
+    dense = np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi)
+    for ks in groups.values():
+        b0 = bare(antennas[ks[0]])
+        az, el, _, (ev0, eh0), alone = _alone(b0, f)
+        field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
+        field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
+        ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
+        w = np.cos(el[:-2]) * dense
+        h2 = np.abs(eh0) ** 2
+        for start in range(0, len(ks), 128):
+            chunk = ks[start : start + 128]
+            cs, refs = [], []
+            for k in chunk:
+                b = bare(antennas[k])
+                t = terms[k]
+                if t is None:
+                    t = phys.coupling_terms(b, tx, f, np.asarray(b.params.position or (0.0, 0.0), dtype=float))
+                cs.append(t[0])
+                refs.append(t[1])
+            d = np.asarray(tx.position_m, dtype=float)[None, :] - np.asarray(refs, dtype=float)
+            phi = np.exp(1j * k_wave * (d[:, :1] * ux[None, :] + d[:, 1:] * uy[None, :]))
+            g = np.abs(ev0[None, :] + np.asarray(cs)[:, None] * field[None, :] * phi) ** 2 + h2[None, :]
+            mean = g[:, :-2] @ w
+            rdf = 10 * np.log10(np.maximum(g[:, -2], 1e-30)) - 10 * np.log10(np.maximum(mean, 1e-30))
+            out[chunk] = alone["rdf_db"] - rdf
+    return out
+
+
 def tx_cost(
     sc, antenna, *, at_m=None, tx: phys.TxVertical | None = None, states: dict | None = None, terms=None
 ) -> dict | None:

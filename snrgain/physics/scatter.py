@@ -421,7 +421,7 @@ def with_vertical(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevatio
 _RESPONSES: dict[tuple, np.ndarray] = {}
 
 
-def _vertical_response(tx: TxVertical, freq_hz: float, az, el) -> np.ndarray:
+def vertical_response(tx: TxVertical, freq_hz: float, az, el) -> np.ndarray:
     """The vertical's own e_v on a set of directions, kept for the next antenna asking on the same directions (a
     ranking asks on the same sky grid for every candidate and every resistor tried)."""
     az, el = np.ascontiguousarray(az, dtype=float), np.ascontiguousarray(el, dtype=float)
@@ -445,6 +445,6 @@ def scattered(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_ra
     k = 2 * np.pi * freq_hz / C_M_PER_S
     d = np.asarray(tx.position_m, dtype=float) - ref
     phi = np.exp(1j * k * np.cos(el) * (d[0] * np.sin(az) + d[1] * np.cos(az)))
-    e_tx = _vertical_response(tx, freq_hz, az, el)
+    e_tx = vertical_response(tx, freq_hz, az, el)
     z = self_impedance(tx, freq_hz) + tx.load_ohm
     return c * effective_height_scale(tx, freq_hz) * e_tx * phi / z

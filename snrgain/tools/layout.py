@@ -285,20 +285,12 @@ class Problem:
         """What the transmitting vertical, in the site's tx_state, and the site's structures take from each placed
         antenna's RDF [dB] (the SNR gain's change under a uniform sky: snrgain.model.scatter; the scatterers one by
         one, summed), 0 where it is not computed (a two-wire reversed port, pattern tables: the clearance rule)."""
-        from snrgain.model.scatter import tx_cost, wire_terms
+        from snrgain.model.scatter import tx_costs_db, wire_terms
 
         total = np.zeros(len(ants))
-        if self.scatterer is not None:
-            terms = wire_terms(self.sc, ants, self.scatterer)  # a long wire's places at once
-            costs = [tx_cost(self.sc, a, tx=self.scatterer, terms=t) for a, t in zip(ants, terms)]
-            total += [0.0 if c is None else c["cost_db"] for c in costs]
-        for _, st, _ in self.structures:
-            if st is not None:
-                terms = wire_terms(self.sc, ants, st)
-                costs = [
-                    tx_cost(self.sc, a, tx=st, states={"as built": st.load_ohm}, terms=t) for a, t in zip(ants, terms)
-                ]
-                total += [0.0 if c is None else c["cost_db"] for c in costs]
+        for st in ([self.scatterer] if self.scatterer is not None else []) + [s for _, s, _ in self.structures]:
+            if st is not None:  # a long wire's places at once, then every place's cost at once
+                total += tx_costs_db(self.sc, ants, st, wire_terms(self.sc, ants, st))
         return total
 
     def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
