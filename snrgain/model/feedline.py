@@ -21,11 +21,11 @@ stands), and only antennas grounded at the feed through a transformer (the long 
 
 from __future__ import annotations
 
-from collections import OrderedDict
 from dataclasses import dataclass
 
 import numpy as np
 
+from snrgain.memo import Memo
 from snrgain.physics import feedline as phys
 
 COST_WARNING_DB = 1.0
@@ -119,21 +119,14 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
     return Prepared(out, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
 
 
-_MEMO: OrderedDict = OrderedDict()
+MEMO_SIZE = 2048
+_MEMO = Memo(MEMO_SIZE)
 """What does not change between calls on the same feed line or antenna (a termination search, the spreads): the
 EMFs along a route from a source, an antenna's own amplitude from it.  The least recently used go past MEMO_SIZE."""
-MEMO_SIZE = 2048
 
 
 def _memo(key, make):
-    hit = _MEMO.get(key)
-    if hit is None:
-        hit = _MEMO[key] = make()
-        while len(_MEMO) > MEMO_SIZE:
-            _MEMO.popitem(last=False)
-    else:
-        _MEMO.move_to_end(key)
-    return hit
+    return _MEMO.get(key, make)
 
 
 def _source_key(src, kind, freq_hz, ground):

@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from snrgain.memo import Memo
 from snrgain.model.notices import Notice
 from snrgain.physics import scatter as phys
 
@@ -88,14 +89,20 @@ def modelled(antenna) -> bool:
     return antenna.params.position is not None or getattr(antenna, "positions", None) is not None
 
 
+def _rdf_db(g, el):
+    """RDF [dB] of gains on tx_cost's grid (the sphere's cells, then forward and back; rows of places allowed):
+    forward over the mean over the upper hemisphere's cells, weighted by their solid angle."""
+    w = np.cos(el[:-2]) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi)
+    mean = g[..., :-2] @ w
+    return 10 * np.log10(np.maximum(g[..., -2], 1e-30)) - 10 * np.log10(np.maximum(mean, 1e-30))
+
+
 def _metrics(ev, eh, az, el, fwd_az, fwd_el):
     g = np.abs(ev) ** 2 + np.abs(eh) ** 2
-    w = np.cos(el)
-    mean = float(np.sum(g[:-2] * w[:-2]) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi))
     fwd, back = float(g[-2]), float(g[-1])
     db = lambda x: 10 * np.log10(max(x, 1e-30))  # noqa: E731
     return {
-        "rdf_db": float(db(fwd) - db(mean)),
+        "rdf_db": float(_rdf_db(g, el)),
         "front_to_back_db": float(db(fwd) - db(back)),
         "forward_gain_dbi": float(db(fwd)),
     }
@@ -138,16 +145,19 @@ def wire_terms(sc, antennas, tx: phys.TxVertical) -> list:
     return out
 
 
-_ALONE: dict[tuple, tuple] = {}
+_ALONE = Memo(64)
 
 
 def _alone(antenna, freq_hz: float):
     """(azimuths, elevations, favoured bearing, its response there, its metrics alone) on tx_cost's grid; kept per
     design (``gain_key``: a placed antenna's far field does not move with it)."""
     key = antenna.gain_key()
-    hit = None if key is None else _ALONE.get((key, float(freq_hz)))
-    if hit is not None:
-        return hit
+    if key is None:
+        return _alone_worked(antenna, freq_hz)
+    return _ALONE.get((key, float(freq_hz)), lambda: _alone_worked(antenna, freq_hz))
+
+
+def _alone_worked(antenna, freq_hz: float):
     az, el = _grid()
     fwd_el = float(getattr(antenna.params, "auto_elevation", FORWARD_ELEVATION_RAD))
     bearing = getattr(antenna.params, "bearing", None)
@@ -158,12 +168,7 @@ def _alone(antenna, freq_hz: float):
     az = np.concatenate([az, [bearing, (bearing + np.pi) % (2 * np.pi)]])
     el = np.concatenate([el, [fwd_el, fwd_el]])
     response = antenna.complex_response(freq_hz, az, el)
-    out = (az, el, bearing, response, _metrics(*response, az, el, bearing, fwd_el))
-    if key is not None:
-        if len(_ALONE) >= 64:
-            _ALONE.pop(next(iter(_ALONE)))
-        _ALONE[(key, float(freq_hz))] = out
-    return out
+    return az, el, bearing, response, _metrics(*response, az, el, bearing, fwd_el)
 
 
 def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
@@ -192,14 +197,12 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
             continue
         groups.setdefault(key, []).append(k)
     k_wave = 2 * np.pi * f / phys.C_M_PER_S
-    dense = np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi)
     for ks in groups.values():
         b0 = bare(antennas[ks[0]])
         az, el, _, (ev0, eh0), alone = _alone(b0, f)
         field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
         field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
         ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
-        w = np.cos(el[:-2]) * dense
         h2 = np.abs(eh0) ** 2
         for start in range(0, len(ks), 128):
             chunk = ks[start : start + 128]
@@ -214,9 +217,7 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
             d = np.asarray(tx.position_m, dtype=float)[None, :] - np.asarray(refs, dtype=float)
             phi = np.exp(1j * k_wave * (d[:, :1] * ux[None, :] + d[:, 1:] * uy[None, :]))
             g = np.abs(ev0[None, :] + np.asarray(cs)[:, None] * field[None, :] * phi) ** 2 + h2[None, :]
-            mean = g[:, :-2] @ w
-            rdf = 10 * np.log10(np.maximum(g[:, -2], 1e-30)) - 10 * np.log10(np.maximum(mean, 1e-30))
-            out[chunk] = alone["rdf_db"] - rdf
+            out[chunk] = alone["rdf_db"] - _rdf_db(g, el)
     return out
 
 

@@ -62,6 +62,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 
 MAX_TX_HEIGHT_WAVELENGTHS = 0.3
@@ -295,8 +296,9 @@ def field_vector_at(tx: TxVertical, freq_hz: float, points_m, z_m) -> np.ndarray
     return e * (-1j * k * ETA0_OHM / (4 * np.pi))
 
 
-_TABLES: dict[tuple, tuple] = {}
-_TABLES_HELD = 256
+_TABLES = Memo(256)
+"""The vertical's field tables (:func:`_field_table`) and its own response on a set of directions
+(:func:`vertical_response`), kept for the next antenna, resistor or place asking."""
 TABLE_RHO_M = np.geomspace(0.05, 50_000.0, 1200)
 """Distances [m] the vertical's field is tabulated at for long wires (:func:`_field_along`): 1.16 % apart."""
 
@@ -304,18 +306,17 @@ TABLE_RHO_M = np.geomspace(0.05, 50_000.0, 1200)
 def _field_table(tx: TxVertical, freq_hz: float, z_m: float) -> tuple[np.ndarray, np.ndarray]:
     """(E_rho, E_z) exp(+j k rho) of :func:`field_vector_at` at :data:`TABLE_RHO_M` and height ``z_m``: the field is
     the same all round the vertical, and without its travelling phase it is smooth in log(rho)."""
-    key = (tx.vertical.params.model_dump_json(), tx.radius_m, float(freq_hz), float(z_m))
-    hit = _TABLES.get(key)
-    if hit is None:
-        if len(_TABLES) >= _TABLES_HELD:
-            _TABLES.pop(next(iter(_TABLES)))
+
+    def make():
         k = 2 * np.pi * freq_hz / C_M_PER_S
         rho = np.maximum(TABLE_RHO_M, 4 * tx.radius_m)
         here = TxVertical(tx.vertical, (0.0, 0.0), tx.load_ohm, tx.radius_m)
         e = field_vector_at(here, freq_hz, np.column_stack([rho, np.zeros_like(rho)]), np.full(len(rho), z_m))
         undo = np.exp(1j * k * rho)
-        hit = _TABLES[key] = (e[:, 0] * undo, e[:, 2] * undo)
-    return hit
+        return e[:, 0] * undo, e[:, 2] * undo
+
+    key = ("table", tx.vertical.params.model_dump_json(), tx.radius_m, float(freq_hz), float(z_m))
+    return _TABLES.get(key, make)
 
 
 def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
@@ -418,20 +419,12 @@ def with_vertical(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevatio
     return ev + scattered(antenna, tx, freq_hz, az, el, at_m=at_m, terms=terms), eh
 
 
-_RESPONSES: dict[tuple, np.ndarray] = {}
-
-
 def vertical_response(tx: TxVertical, freq_hz: float, az, el) -> np.ndarray:
     """The vertical's own e_v on a set of directions, kept for the next antenna asking on the same directions (a
     ranking asks on the same sky grid for every candidate and every resistor tried)."""
     az, el = np.ascontiguousarray(az, dtype=float), np.ascontiguousarray(el, dtype=float)
-    key = (tx.vertical.params.model_dump_json(), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
-    hit = _RESPONSES.get(key)
-    if hit is None:
-        if len(_RESPONSES) >= _TABLES_HELD:
-            _RESPONSES.pop(next(iter(_RESPONSES)))
-        hit = _RESPONSES[key] = tx.vertical.complex_response(freq_hz, az, el)[0]
-    return hit
+    key = ("response", tx.vertical.params.model_dump_json(), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
+    return _TABLES.get(key, lambda: tx.vertical.complex_response(freq_hz, az, el)[0])
 
 
 def scattered(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):
