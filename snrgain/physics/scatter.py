@@ -324,8 +324,33 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
     distance at each height (:func:`_field_table`, interpolated in log distance; within 1e-3 of the direct sum from
     1 m out, a test): a long wire asks at a few heights only (its own and its leads' quadrature points), at many
     places (a layout's trials, a resistor searched under the sky)."""
-    pts = np.atleast_2d(np.asarray(pts, dtype=float))
-    heights = np.broadcast_to(np.asarray(heights, dtype=float), (len(pts),))
+    pts = np.ascontiguousarray(np.atleast_2d(np.asarray(pts, dtype=float)))
+    heights = np.ascontiguousarray(np.broadcast_to(np.asarray(heights, dtype=float), (len(pts),)))
+    if len(pts) > ALONG_MEMO_POINTS:
+        return _field_along_now(tx, freq_hz, pts, heights)
+    key = (
+        "along",
+        tx.vertical.params.model_dump_json(),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        pts.tobytes(),
+        heights.tobytes(),
+    )
+    return _ALONG.get(key, lambda: _field_along_now(tx, freq_hz, pts, heights))
+
+
+_ALONG = Memo(64)
+"""The vertical's field along a wire as last asked (:func:`_field_along`): the same points for every resistor a
+termination search tries and every ground variant of the spreads (the wire does not move)."""
+ALONG_MEMO_POINTS = 20_000
+"""Larger requests (a layout's many places at once) are worked afresh rather than kept."""
+
+
+def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: np.ndarray) -> np.ndarray:
+    if len(heights) and np.any(heights != heights[0]) and len(heights) < len(TABLE_RHO_M):
+        # up a wire's down-leads: a few points at each of several heights, fewer than one height's table holds
+        return field_vector_at(tx, freq_hz, pts, heights)
     d = pts - np.asarray(tx.position_m, dtype=float)[None, :]
     rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
     k = 2 * np.pi * freq_hz / C_M_PER_S
