@@ -80,10 +80,10 @@ from snrgain.antennas.longwire import (
     termination_figure,
     vertical_emf,
 )
-from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
+from snrgain.physics.quadrature import gauss_legendre
 
 AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 """Resistors tried by termination = "auto" [ohm]."""

@@ -49,6 +49,7 @@ import numpy as np
 from noisemodels import nearground
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.quadrature import gauss_legendre
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
 """The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
@@ -240,7 +241,7 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
     current = np.trapezoid(emf * transfer[None, :], x, axis=1)
     if wire.has_leads and h > 0:
-        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        t, wq = gauss_legendre(LEAD_POINTS)
         zs = (t + 1) * h / 2
         ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
         ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))

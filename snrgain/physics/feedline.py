@@ -72,6 +72,7 @@ import numpy as np
 
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.quadrature import gauss_legendre
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -289,7 +290,7 @@ def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
     lead = np.zeros(2, dtype=complex)
     if not fl.buried:
         h = fl.wire_height_m
-        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        t, wq = gauss_legendre(LEAD_POINTS)
         zs = (t + 1) * h / 2
         ends = np.array([pts[0], pts[-1]])
         ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
