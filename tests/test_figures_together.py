@@ -176,6 +176,40 @@ def test_the_plan_holds_the_whole_site(drawn):
     assert {o["antenna"] for o in plan["off_lot"]} == {"wire north"}
 
 
+def test_the_clearance_circle_is_drawn_only_where_the_rule_applies():
+    # Without a given clearance, half a wavelength is a rule only for an antenna whose coupling to the TX vertical
+    # is not computed (snrgain.decide.lot): on this site every placed antenna's is, so no circle; a two-wire line's
+    # reversed port is not computed, so placing one brings the circle back (164 m at 1.83 MHz, 537 ft).
+    import tomllib
+
+    text = SITE.read_text().replace('tx_clearance = "100 ft"\n', "")
+    data = tomllib.loads(text)
+    plan = plan_of(load(data), data=data)
+    assert plan["clearance_m"] is None
+    assert not [p for p in plots.layout_plan(plan).axes[0].patches if isinstance(p, Circle)]
+    # a TX vertical with no position of its own stands at the plan's origin, and is marked there
+    unplaced = {**data, "reference": {k: v for k, v in data["reference"].items() if k != "position"}}
+    plan = plan_of(load(unplaced), data=unplaced)
+    (mark,) = [ln for ln in plots.layout_plan(plan).axes[0].lines if "at the plan's origin" in ln.get_label()]
+    assert mark.get_label().startswith(plan["tx_name"]) and list(mark.get_xydata()[0]) == [0.0, 0.0]
+    reversed_port = {
+        "name": "two-wire south-east port",
+        "family": "two-wire",
+        "length": "250 m",
+        "height": "2.5 m",
+        "spacing": "30 cm",
+        "bearing": 320,
+        "port": "reverse",
+        "position": ["-100 ft", "-300 ft"],
+    }
+    data["candidate"].append(reversed_port)
+    sc = load(data)
+    plan = plan_of(sc, data=data)
+    assert plan["clearance_m"] == pytest.approx(0.5 * 299_792_458.0 / sc.freq_hz)
+    circles = [p for p in plots.layout_plan(plan).axes[0].patches if isinstance(p, Circle)]
+    assert len(circles) == 1 and circles[0].get_radius() == pytest.approx(plan["clearance_m"] * FT_PER_M)
+
+
 def test_the_plan_unit_is_the_scenarios():
     assert plan_unit({"site": {"lot": [["0 ft", "0 ft"]]}, "candidate": [{"length": "300 ft"}]}) == "ft"
     assert plan_unit({"site": {"lot": [[0, 0]]}, "candidate": [{"length": "300 ft", "position": ["3 m", "0 m"]}]}) == (

@@ -139,6 +139,14 @@ def tx_clearance_m(site, freq_hz: float) -> float:
     return float(given) if given is not None else DEFAULT_TX_CLEARANCE_WAVELENGTHS * C_M_PER_S / freq_hz
 
 
+def clearance_applies(sc, antenna) -> bool:
+    """Whether the TX vertical's clearance is a rule for ``antenna``: always when the site gives one, else only where
+    its coupling to the vertical is not computed (snrgain.model.scatter.modelled)."""
+    from snrgain.model.scatter import modelled
+
+    return getattr(sc.site, "tx_clearance_m", None) is not None or not modelled(antenna)
+
+
 def _one_antenna(a, b) -> bool:
     """True where ``a`` and ``b`` are states of one switched antenna (snrgain.scenario.antennas.SwitchedState)."""
     from snrgain.scenario.switched import switched_state
@@ -179,7 +187,7 @@ def site_notices(sc) -> list[Notice]:
                 continue
             if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
-    from snrgain.model.scatter import modelled, tx_antenna
+    from snrgain.model.scatter import tx_antenna
 
     ref = tx_antenna(sc)
     # Where the TX vertical stands: its position, or the plan's origin when the site has a lot; with neither there
@@ -192,7 +200,7 @@ def site_notices(sc) -> list[Notice]:
         clear = tx_clearance_m(site, sc.freq_hz)
         given = getattr(site, "tx_clearance_m", None) is not None
         for ant, shape in shapes:
-            if shape is not None and (given or not modelled(ant)):
+            if shape is not None and clearance_applies(sc, ant):
                 d = float(shape.distance(tx))
                 if d < clear:
                     out.append(

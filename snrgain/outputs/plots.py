@@ -605,6 +605,19 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                     zorder=5,
                 )
             label = None
+    drawn = {a["name"] for a in plan["antennas"] if a["parts"]}
+    if plan["tx"] is not None and plan.get("tx_name") not in drawn:  # a TX vertical with no position of its own
+        lk = looks.get(plan.get("tx_name"))
+        ax.plot(
+            *xy([plan["tx"]]),
+            marker=lk.marker if lk else "^",
+            color=lk.color if lk else "black",
+            mec="black",
+            ms=10,
+            ls="none",
+            label=f"{plan['tx_name']} (transmitting; at the plan's origin)",
+            zorder=5,
+        )
     for i, o in enumerate(plan["off_lot"]):
         ox, oy = xy(o["coords"])
         ax.plot(

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from snrgain.decide.lot import OFF_LOT_TOLERANCE_M, footprint, polygon, tx_clearance_m
+from snrgain.decide.lot import OFF_LOT_TOLERANCE_M, clearance_applies, footprint, polygon, tx_clearance_m
 from snrgain.units import FT_PER_M, length_unit_of
 
 
@@ -102,7 +102,12 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         "keep_out": [(n, [tuple(map(float, p)) for p in pts]) for n, pts in site.keep_out],
         "tx": tx,
         "tx_name": ref.name if ref is not None else sc.reference.name,
-        "clearance_m": tx_clearance_m(site, sc.freq_hz) if tx is not None else None,
+        # the circle only where the rule applies: a clearance given, or an antenna on the plan whose coupling to the
+        # vertical is not computed (the others' cost is in their figures: snrgain.decide.lot)
+        "clearance_m": tx_clearance_m(site, sc.freq_hz)
+        if tx is not None
+        and any(clearance_applies(sc, a) for a in sc.candidates if a is not ref and footprint(a) is not None)
+        else None,
         "clearance_given": getattr(site, "tx_clearance_m", None) is not None,
         "sources": [(s.name, tuple(map(float, s.position_m))) for s in sc.noise.local if s.position_m is not None],
         "feed_lines": [  # the coax runs (a candidate's feed_line), from where the antenna stands to the station entry
