@@ -32,34 +32,11 @@ class BandResults:
         return [f"[{name}] {w}" for name, r in self.bands for w in r.warnings]
 
     def plan_dict(self) -> dict[str, Any]:
-        p = self.plan
-        return {
-            "antennas": p.antennas,
-            "added_db": p.added_db,
-            "gain_db": p.gain_db,
-            "method": p.method,
-            "max_antennas": p.max_antennas,
-            "by_band_and_target": [
-                {
-                    "band": self.columns[c][0],
-                    "target": self.columns[c][1],
-                    "served_by": [
-                        {
-                            "antenna": s.antenna,
-                            "months": s.months,
-                            "utc_hours": s.utc_hours,
-                            "snr_gain_db": s.snr_gain_db,
-                        }
-                        for s in rows
-                    ],
-                }
-                for c, rows in sorted(p.by_target.items())
-            ],
-            "not_best": [
-                {"band": self.columns[c][0], "target": self.columns[c][1], **why}
-                for c, why in sorted(p.not_best.items())
-            ],
-        }
+        from snrgain.model.results import plan_to_dict
+
+        return plan_to_dict(
+            self.plan, "by_band_and_target", lambda c: {"band": self.columns[c][0], "target": self.columns[c][1]}
+        )
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-ready: ``bands`` (each band's full results, as a single-band run gives them, with its ``band``

@@ -311,32 +311,37 @@ class Results:
         return out
 
     def _plan_dict(self) -> dict[str, Any]:
-        p = self.plan
-        return {
-            "antennas": p.antennas,
-            "added_db": p.added_db,
-            "gain_db": p.gain_db,
-            "method": p.method,
-            "max_antennas": p.max_antennas,
-            "by_target": [
-                {
-                    "target": self.targets[t]["name"],
-                    "served_by": [
-                        {
-                            "antenna": s.antenna,
-                            "group": s.group,
-                            "months": s.months,
-                            "utc_hours": s.utc_hours,
-                            "snr_gain_db": s.snr_gain_db,
-                        }
-                        for s in rows
-                    ],
-                }
-                for t, rows in sorted(p.by_target.items())
-            ],
-            "not_best": [{"target": self.targets[t]["name"], **why} for t, why in sorted(p.not_best.items())],
-            "states": getattr(p, "states", {}),
-        }
+        return plan_to_dict(self.plan, "by_target", lambda t: {"target": self.targets[t]["name"]})
+
+
+def plan_to_dict(p, rows_key: str, where) -> dict[str, Any]:
+    """A station plan as JSON: ``rows_key`` lists, for each of the plan's columns (``where(column)`` names it: its
+    target, or its band and target), the antennas that serve it and when; one writer for one band and for several."""
+    return {
+        "antennas": p.antennas,
+        "added_db": p.added_db,
+        "gain_db": p.gain_db,
+        "method": p.method,
+        "max_antennas": p.max_antennas,
+        rows_key: [
+            {
+                **where(c),
+                "served_by": [
+                    {
+                        "antenna": s.antenna,
+                        "group": getattr(s, "group", None),
+                        "months": s.months,
+                        "utc_hours": s.utc_hours,
+                        "snr_gain_db": s.snr_gain_db,
+                    }
+                    for s in rows
+                ],
+            }
+            for c, rows in sorted(p.by_target.items())
+        ],
+        "not_best": [{**where(c), **why} for c, why in sorted(p.not_best.items())],
+        "states": getattr(p, "states", {}),
+    }
 
 
 def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
