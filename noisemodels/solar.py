@@ -39,6 +39,15 @@ def _spencer(day_of_year):
     return decl, eot_min
 
 
+def hour_terms(*, day_of_year, utc_hour) -> tuple[float, float, float, float]:
+    """(sin d, cos d, cos c, sin c): the day's and hour's part of the sun's zenith angle chi at any place,
+    cos chi = sin(lat) sin d + cos(lat) cos d cos(lon + c), d the declination and c the hour angle at longitude 0
+    (the same formula as :func:`solar_elevation_rad`, for many places at one hour with their own sines kept)."""
+    decl, eot_min = _spencer(day_of_year)
+    c = np.radians(15.0 * (float(utc_hour) + float(eot_min) / 60.0 - 12.0))
+    return float(np.sin(decl)), float(np.cos(decl)), float(np.cos(c)), float(np.sin(c))
+
+
 def solar_elevation_rad(latitude_rad, longitude_rad, *, day_of_year, utc_hour):
     """Elevation of the sun's centre above the horizon [rad], refraction ignored.
 

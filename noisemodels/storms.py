@@ -230,6 +230,20 @@ def p372_blocks(geom: PathGeometry, *, month: int, freq_hz: float, data_dir=None
     return _p372_blocks_cached(geom.key, int(month), float(freq_hz), str(path), mtime)
 
 
+@lru_cache(maxsize=8)
+def _reflection_trig(key: tuple) -> tuple[tuple[np.ndarray, ...], ...]:
+    """Per hop, (sin, cos) of the reflection points' latitudes and (cos, sin) of their longitudes: what the sun's
+    zenith angle there needs that the hour does not change (:func:`noisemodels.solar.hour_terms`)."""
+    geom = path_geometry(*key)
+    out = []
+    for la, lo in zip(geom.reflection_lat_rad, geom.reflection_lon_rad):
+        arrs = (np.sin(la), np.cos(la), np.cos(lo), np.sin(lo))
+        for a in arrs:
+            a.setflags(write=False)
+        out.append(arrs)
+    return tuple(out)
+
+
 @lru_cache(maxsize=16)
 def _noon_loss_db(key: tuple, freq_mhz: float) -> np.ndarray:
     """noon_absorption_db at each cell's arrival elevation (it does not depend on the hour)."""
@@ -251,11 +265,11 @@ def cell_power(
     f_mhz = freq_hz / 1e6
     noon = _noon_loss_db(geom.key, f_mhz).ravel()
     # Absorption at each hop's reflection point (fractions (2i - 1) / (2n) of the path), where there is one.
-    doy = solar.mid_month_day_of_year(month)
+    sin_d, cos_d, cos_c, sin_c = solar.hour_terms(day_of_year=solar.mid_month_day_of_year(month), utc_hour=utc_hour)
     loss = np.zeros(n.size)
-    for cells, la, lo in zip(geom.reflection_cells, geom.reflection_lat_rad, geom.reflection_lon_rad):
-        chi = np.pi / 2 - solar.solar_elevation_rad(la, lo, day_of_year=doy, utc_hour=utc_hour)
-        loss[cells] += _hop_loss_db(noon[cells], chi)
+    for cells, (sin_lat, cos_lat, cos_lon, sin_lon) in zip(geom.reflection_cells, _reflection_trig(geom.key)):
+        cos_chi = sin_lat * sin_d + cos_lat * cos_d * (cos_lon * cos_c - sin_lon * sin_c)
+        loss[cells] += _hop_loss_db(noon[cells], np.arccos(np.clip(cos_chi, -1.0, 1.0)))
     loss_db = loss.reshape(n.shape)
     loss_db += GROUND_LOSS_DB_PER_REFLECTION * (n - 1)
     return (
