@@ -195,9 +195,60 @@ class FeedLine:
 
 
 @dataclass(frozen=True)
+class End:
+    """What the shield meets at the antenna end, past its isolation: ``z_cm`` the antenna end's common-mode
+    impedance to earth [ohm], ``divider`` the share of the shield's current I_A that runs through the receiver's
+    load (complex, with the sign of :func:`field_current`), ``load_ohm`` that load's resistance [ohm] (the port
+    response's), and ``ground_ohm`` the ground at the feed the shield meets (None: none, a floating loop)."""
+
+    z_cm: complex
+    divider: complex
+    load_ohm: float
+    ground_ohm: float | None = None
+    coherent: bool = True
+    """Whether the wiring fixes the sign between the feed line's current in the load and the antenna's own (a
+    grounded feed: yes; a loop's terminals or a phasing unit's output: either way round)."""
+
+
+def replace_end(end: End, **changes) -> End:
+    """``end`` with ``changes`` (dataclasses.replace)."""
+    from dataclasses import replace
+
+    return replace(end, **changes)
+
+
+def grounded_end(*, rod_ohm: float, loop_ohm: complex, load_ohm: float) -> End:
+    """A feed grounded through a rod (or a radial system) with the antenna's own loop across it (the long wires,
+    a vertical, a phasing unit's output): Z_cm = Z_rod || Z_loop, the current divider Z_rod / (Z_rod + Z_loop)
+    (module docstring)."""
+    rod = complex(rod_ohm)
+    par = rod * loop_ohm / (rod + loop_ohm) if rod != 0 else 0j
+    return End(complex(par), complex(rod / (rod + loop_ohm)), float(load_ohm), float(rod_ohm))
+
+
+def floating_end(freq_hz: float, capacitance_f, *, other_ohm: complex, load_ohm: complex) -> End:
+    """A loop with no ground at its feed (a flag, a small loop): the shield joins one terminal of the loop's feed,
+    the near half P; the loop's two halves are conductors over the earth with the Maxwell capacitance matrix
+    ``capacitance_f`` [[C_PP, C_PQ], [C_QP, C_QQ]] [F] (near half first), joined at the feed by the receiver's
+    load Z_L (``load_ohm``, complex) and around the loop by ``other_ohm`` (the termination and the loop's own
+    inductance and loss; the loop's wire alone for an unterminated loop).  Nodal analysis of that lumped circuit
+    with I_A injected into P: Y V = (I_A, 0) with Y = j w C + (1 / Z_pq) [[1, -1], [-1, 1]], Z_pq = Z_L || Z_other;
+    Z_cm = V_P / I_A and the load's current (V_P - V_Q) / Z_L, taken with the sign of the grounded case's divider
+    (from the shield's half toward the other through the load).  ``load_ohm``'s real part is the port's."""
+    c = np.asarray(capacitance_f, dtype=complex)
+    w = 2 * np.pi * freq_hz
+    z_l, z_o = complex(load_ohm), complex(other_ohm)
+    y_pq = 1.0 / z_l + 1.0 / z_o
+    y = 1j * w * c + y_pq * np.array([[1.0, -1.0], [-1.0, 1.0]])
+    v = np.linalg.solve(y, np.array([1.0, 0.0], dtype=complex))
+    return End(complex(v[0]), complex((v[0] - v[1]) / z_l), float(np.real(z_l)), None, coherent=False)
+
+
+@dataclass(frozen=True)
 class Coupling:
     """The circuit at the antenna end at one frequency: the shield's line, Z_th (its input impedance toward the
-    station), Z_A (the antenna end's load), the share of I_A through the receiver's load, and that load [ohm]."""
+    station), Z_A (the antenna end's load: the isolation in series with the end's Z_cm), the share of I_A through
+    the receiver's load, and that load [ohm]."""
 
     line: lines.LineConstants
     z_th: complex
@@ -214,13 +265,15 @@ class Coupling:
 def coupling(fl: FeedLine, freq_hz: float, ground, *, rod_ohm: float, loop_ohm: complex, load_ohm: float) -> Coupling:
     """The antenna end's circuit (module docstring): ``rod_ohm`` the antenna's feed ground, ``loop_ohm`` its own
     loop (line input impedance plus receiver load), ``load_ohm`` the receiver's load through the transformer."""
+    return coupling_at(fl, freq_hz, ground, grounded_end(rod_ohm=rod_ohm, loop_ohm=loop_ohm, load_ohm=load_ohm))
+
+
+def coupling_at(fl: FeedLine, freq_hz: float, ground, end: End) -> Coupling:
+    """The antenna end's circuit for any :class:`End` (:func:`grounded_end`, :func:`floating_end`)."""
     ln = fl.line(freq_hz, ground)
     z_th = lines.input_impedance(ln, length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
-    rod = complex(rod_ohm)
-    par = rod * loop_ohm / (rod + loop_ohm) if rod != 0 else 0j
-    z_end = fl.isolation_ohm(freq_hz) + par
-    divider = rod / (rod + loop_ohm)
-    return Coupling(ln, complex(z_th), complex(z_end), complex(divider), float(load_ohm))
+    z_end = fl.isolation_ohm(freq_hz) + end.z_cm
+    return Coupling(ln, complex(z_th), complex(z_end), complex(end.divider), float(end.load_ohm))
 
 
 def choke_for_ratio(fl: FeedLine, c: Coupling, freq_hz: float, reduction: float) -> float:
