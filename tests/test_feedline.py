@@ -188,6 +188,17 @@ def test_a_choke_scales_every_direction_alike_and_the_reported_one_gives_its_red
     assert np.all(phys.sky_gain(tr, ct, F, az, el, GROUND) < g0 / 100)
 
 
+def test_a_long_wires_own_amplitude_is_placed_reading_to_the_bit():
+    # The feed line's phasor sum takes the Beverage's own amplitude with the source's field along it memoised (a
+    # termination search pays only the line's transfer): the same samples and integral as snrgain.model.placed.
+    from snrgain.model import feedline
+
+    bev = _beverage()
+    for src in (_source(10.0, -75.0), _source(60.0, 120.0, height=5.0), _source(-30.0, 40.0)):
+        a = placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND, kind="vertical")[0]
+        assert feedline._wire_amplitude(bev, src, "vertical", F, (0.0, 0.0), GROUND) == a
+
+
 def test_shield_line_is_the_wire_over_ground_line():
     # The shield's line is snrgain.physics.lines' wire over the ground at its height and jacket radius; buried, the
     # insulated wire in the soil (slower and lossier).

@@ -258,9 +258,13 @@ def placed_field(src, pts, heights, freq_hz, ground, kind):
 
 def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
     """The antenna's own amplitude from a placed source's dipole (snrgain.model.placed.received_amplitudes, its
-    first: a long wire's), memoised by the antenna's parameters (its termination and place among them)."""
+    first), memoised by the antenna's parameters (its termination and place among them).  A long wire's: the
+    source's field along it (the costly part) memoised by its geometry alone, so a termination search or a turns
+    ratio tried pays only the line's transfer (:func:`_wire_amplitude`)."""
     from snrgain.model import placed
 
+    if antenna.integrates_near_sources and hasattr(antenna, "receiver_load_ohm"):
+        return _wire_amplitude(antenna, src, kind, freq_hz, reference_m, ground)
     key = (
         "own",
         type(antenna).__name__,
@@ -269,6 +273,31 @@ def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
         _source_key(src, kind, freq_hz, ground),
     )
     return _memo(key, lambda: placed.received_amplitudes(antenna, src, freq_hz, reference_m, ground, kind=kind)[0])
+
+
+def _wire_amplitude(wire, src, kind, freq_hz, reference_m, ground) -> complex:
+    """:func:`snrgain.model.placed.received_amplitudes` of a long wire (the same samples and reciprocity integral,
+    snrgain.model.placed.wire_currents_in_field), with the source's field at its sample points memoised."""
+    from snrgain.antennas.longwire import port_response
+    from snrgain.model import placed
+
+    feed = np.asarray(placed.antenna_point(wire, reference_m), dtype=float)
+    b = wire.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    to_src = np.asarray(src.position_m, dtype=float) - feed
+    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, wire.length_m) * u)))
+    x = placed.wire_samples(wire.length_m, freq_hz, float(np.hypot(closest, src.height_m)))
+    where = ("wire-field", _source_key(src, kind, freq_hz, ground))
+
+    def field(pts, heights):
+        key = (*where, pts.shape, hash(pts.tobytes()), hash(np.asarray(heights).tobytes()))
+        return _memo(key, lambda: placed_field(src, pts, heights, freq_hz, ground, kind))
+
+    i_f = placed.wire_currents_in_field(wire, freq_hz, feed[None, :], x, field)[0]
+    e = port_response(
+        freq_hz, np.array([i_f]), load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=np.array([src.elevation_rad])
+    )
+    return complex(e[0])
 
 
 def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex:

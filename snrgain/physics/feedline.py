@@ -337,16 +337,19 @@ def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
     u = np.array([np.sin(b), np.cos(b)])
     x = route_samples(fl, freq_hz, closest_m)
     pts = np.asarray(fl.start_m, dtype=float)[None, :] + x[:, None] * u[None, :]
-    e = field(pts, np.full(len(x), fl.wire_height_m))
-    emf = e[:, 0] * u[0] + e[:, 1] * u[1]
-    lead = np.zeros(2, dtype=complex)
-    if not fl.buried:
-        h = fl.wire_height_m
-        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
-        zs = (t + 1) * h / 2
-        ends = np.array([pts[0], pts[-1]])
-        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
-        lead = (ez[:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
+    heights = np.full(len(x), fl.wire_height_m)
+    if fl.buried:
+        e = field(pts, heights)
+        return x, e[:, 0] * u[0] + e[:, 1] * u[1], np.zeros(2, dtype=complex)
+    # the run and both leads in one call of the field (one pass over the source's terms)
+    h = fl.wire_height_m
+    t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+    zs = (t + 1) * h / 2
+    ends = np.array([pts[0], pts[-1]])
+    e = field(np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)]))
+    n = len(x)
+    emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
+    lead = (e[n:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
     return x, emf, lead
 
 
