@@ -197,6 +197,33 @@ def test_a_long_wires_own_amplitude_is_placed_reading_to_the_bit():
     for src in (_source(10.0, -75.0), _source(60.0, 120.0, height=5.0), _source(-30.0, 40.0)):
         a = placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND, kind="vertical")[0]
         assert feedline._wire_amplitude(bev, src, "vertical", F, (0.0, 0.0), GROUND) == a
+        # and with the field worked once for the route and the wire together (feedline._fields)
+        got = feedline._fields(_shield(), bev, src, "vertical", F, (0.0, 0.0), GROUND)
+        assert feedline._wire_amplitude(bev, src, "vertical", F, (0.0, 0.0), GROUND, got) == pytest.approx(a, rel=1e-12)
+        route = feedline._route_emf(_shield(choke=1.0), src, "vertical", F, GROUND, got)
+        x, emf, lead = phys.route_emf(
+            _shield(),
+            F,
+            lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"),
+            closest_m=feedline._closest(_shield(), src),
+        )
+        np.testing.assert_allclose(route[1], emf, rtol=1e-12)
+        np.testing.assert_allclose(route[2], lead, rtol=1e-12)
+
+
+def test_the_memoised_sky_pattern_scaled_by_thevenin_is_the_pattern_worked_anew():
+    # The pipeline keeps a route's sky pattern once and scales it to each coupling (another choke, a termination
+    # tried, another antenna end): equal to the pattern worked with that coupling.
+    from snrgain.model import feedline
+
+    bev = _beverage()
+    rod, loop, load = antenna_loads(bev, F)
+    az = np.radians(np.arange(0.0, 360.0, 20.0))
+    el = np.full(az.shape, np.radians(25.0))
+    for fl, r in ((_shield(), rod), (_shield(choke=800.0), rod), (_shield(isolation="transformer"), 5.0)):
+        c = phys.coupling(fl, F, GROUND, rod_ohm=r, loop_ohm=loop, load_ohm=load)
+        direct = phys.sky_gain(fl, c, F, az, el, GROUND)
+        np.testing.assert_allclose(feedline.sky_gain(fl, c, F, az, el, GROUND), direct, rtol=1e-9)
 
 
 def test_shield_line_is_the_wire_over_ground_line():

@@ -212,10 +212,11 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for k, (fl, c, coherent) in out.items():
             for kind, _ in placed.dipoles(src):
-                b = port_amplitude(f, phys.emf_current(fl, c, *_route_emf(fl, src, kind, f, ground)), c.load_ohm)
+                got = _fields(fl, antennas[k] if coherent else None, src, kind, f, ref_m, ground)
+                b = port_amplitude(f, phys.emf_current(fl, c, *_route_emf(fl, src, kind, f, ground, got)), c.load_ohm)
                 p[k] += abs(b) ** 2
                 if coherent:  # one source drives both: their currents in the load add as phasors
-                    a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground)
+                    a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground, got)
                     d[k] += abs(a + b) ** 2 - abs(a) ** 2
                 else:
                     d[k] += abs(b) ** 2
@@ -240,13 +241,84 @@ def _source_key(src, kind, freq_hz, ground):
     return (where, kind, float(freq_hz), g)
 
 
-def _route_emf(fl, src, kind, freq_hz, ground):
-    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source."""
+def _wire_key(wire, reference_m) -> tuple:
+    """What a long wire's samples and leads depend on (not its loads)."""
+    from snrgain.model import placed
+
+    feed = tuple(float(v) for v in placed.antenna_point(wire, reference_m))
+    return (feed, float(wire.bearing_rad), float(wire.length_m), float(wire.wire_height_m()), bool(wire.has_leads))
+
+
+def _fields(fl, wire, src, kind, freq_hz, reference_m, ground) -> dict:
+    """The source's field at every point the feed line's route asks for (``"route"``: route_points) and, for a long
+    wire whose own amplitude is wanted (``wire``), at its samples and leads (``"wire"``: one array per group, in
+    the order snrgain.model.placed's reading asks for them), in one call of the field (each call's own cost
+    dominates at a few hundred points), memoised by the geometry and the source, not the loads."""
+    long_wire = wire is not None and wire.integrates_near_sources and hasattr(wire, "receiver_load_ohm")
+    key = (
+        "fields",
+        (fl.start_m, fl.end_m, fl.height_m, fl.depth_m),
+        _wire_key(wire, reference_m) if long_wire else None,
+        _source_key(src, kind, freq_hz, ground),
+    )
+
+    def evaluate():
+        groups = [phys.route_points(fl, phys.route_samples(fl, freq_hz, _closest(fl, src)))]
+        if long_wire:
+            groups += _wire_points(wire, src, freq_hz, reference_m)[2]
+        e = placed_field(
+            src, np.vstack([g[0] for g in groups]), np.concatenate([g[1] for g in groups]), freq_hz, ground, kind
+        )
+        parts = np.split(e, np.cumsum([len(g[0]) for g in groups])[:-1])
+        return {"route": parts[0], "wire": parts[1:] if long_wire else None}
+
+    return _memo(key, evaluate)
+
+
+def _replay(parts, src, kind, freq_hz, ground):
+    """A field ``field(points, heights)`` that gives ``parts`` in turn (the arrays :func:`_fields` worked for the
+    calls a reading makes, in their order) and works the field itself for a call it holds nothing of that size."""
+    queue = list(parts or ())
 
     def field(pts, heights):
+        if queue and len(queue[0]) == len(pts):
+            return queue.pop(0)
         return placed_field(src, pts, heights, freq_hz, ground, kind)
 
+    return field
+
+
+def _wire_points(wire, src, freq_hz, reference_m):
+    """(feed [m], samples x [m], the point groups (points, heights)) at which :func:`snrgain.model.placed`'s
+    reading of a long wire takes a source's field: its samples along the wire, then the leads (as
+    snrgain.model.placed._currents_on builds them)."""
+    from snrgain.antennas.vertical import gauss_legendre
+    from snrgain.model import placed
+
+    feed = np.asarray(placed.antenna_point(wire, reference_m), dtype=float)
+    b = wire.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    to_src = np.asarray(src.position_m, dtype=float) - feed
+    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, wire.length_m) * u)))
+    x = placed.wire_samples(wire.length_m, freq_hz, float(np.hypot(closest, src.height_m)))
+    feeds = feed[None, :]
+    h = wire.wire_height_m()
+    pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
+    groups = [(pts, np.full(len(pts), h))]
+    if wire.has_leads and h > 0:
+        t, _ = gauss_legendre(placed.LEAD_POINTS)
+        zs = (t + 1) * h / 2
+        ends = np.concatenate([feeds, feeds + wire.length_m * u[None, :]])
+        groups.append((np.repeat(ends, placed.LEAD_POINTS, axis=0), np.tile(zs, 2)))
+    return feed, x, groups
+
+
+def _route_emf(fl, src, kind, freq_hz, ground, got=None):
+    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source
+    (``got``: :func:`_fields`' arrays)."""
     key = ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+    parts = None if got is None else [got["route"]]
+    field = _replay(parts, src, kind, freq_hz, ground)
     return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
 
 
@@ -256,7 +328,7 @@ def placed_field(src, pts, heights, freq_hz, ground, kind):
     return placed.field_vector(src, pts, heights, freq_hz, ground, kind=kind)
 
 
-def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
+def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground, got=None) -> complex:
     """The antenna's own amplitude from a placed source's dipole (snrgain.model.placed.received_amplitudes, its
     first), memoised by the antenna's parameters (its termination and place among them).  A long wire's: the
     source's field along it (the costly part) memoised by its geometry alone, so a termination search or a turns
@@ -264,7 +336,7 @@ def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
     from snrgain.model import placed
 
     if antenna.integrates_near_sources and hasattr(antenna, "receiver_load_ohm"):
-        return _wire_amplitude(antenna, src, kind, freq_hz, reference_m, ground)
+        return _wire_amplitude(antenna, src, kind, freq_hz, reference_m, ground, got)
     key = (
         "own",
         type(antenna).__name__,
@@ -275,24 +347,15 @@ def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
     return _memo(key, lambda: placed.received_amplitudes(antenna, src, freq_hz, reference_m, ground, kind=kind)[0])
 
 
-def _wire_amplitude(wire, src, kind, freq_hz, reference_m, ground) -> complex:
+def _wire_amplitude(wire, src, kind, freq_hz, reference_m, ground, got=None) -> complex:
     """:func:`snrgain.model.placed.received_amplitudes` of a long wire (the same samples and reciprocity integral,
-    snrgain.model.placed.wire_currents_in_field), with the source's field at its sample points memoised."""
+    snrgain.model.placed.wire_currents_in_field), with the source's field at its samples from :func:`_fields`
+    (``got``; worked here without it)."""
     from snrgain.antennas.longwire import port_response
     from snrgain.model import placed
 
-    feed = np.asarray(placed.antenna_point(wire, reference_m), dtype=float)
-    b = wire.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    to_src = np.asarray(src.position_m, dtype=float) - feed
-    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, wire.length_m) * u)))
-    x = placed.wire_samples(wire.length_m, freq_hz, float(np.hypot(closest, src.height_m)))
-    where = ("wire-field", _source_key(src, kind, freq_hz, ground))
-
-    def field(pts, heights):
-        key = (*where, pts.shape, hash(pts.tobytes()), hash(np.asarray(heights).tobytes()))
-        return _memo(key, lambda: placed_field(src, pts, heights, freq_hz, ground, kind))
-
+    feed, x, _ = _wire_points(wire, src, freq_hz, reference_m)
+    field = _replay(None if got is None else got["wire"], src, kind, freq_hz, ground)
     i_f = placed.wire_currents_in_field(wire, freq_hz, feed[None, :], x, field)[0]
     e = port_response(
         freq_hz, np.array([i_f]), load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=np.array([src.elevation_rad])
@@ -335,8 +398,25 @@ def gains(prep: Prepared, sc, reference_gains):
     caches = [reference_gains.caches[0]]
     for k in sorted(prep.lines):
         fl, c = prep.lines[k]
-        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: phys.sky_gain(fl, c, f, az, el, ground)))
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: sky_gain(fl, c, f, az, el, ground)))
     return snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches)))
+
+
+def sky_gain(fl: phys.FeedLine, c: phys.Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
+    """:func:`snrgain.physics.feedline.sky_gain`, its responses memoised by route, ground and directions and scaled
+    to each coupling by Thevenin's theorem (:func:`snrgain.physics.feedline.thevenin_scale`): a termination search,
+    a choke or another antenna end on the same route costs one scaling of the pattern, not its evaluation."""
+    az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
+    g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
+    route = (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m)
+    key = ("sky", route, fl.station_ground_ohm, float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
+
+    def make():
+        unit = phys.unit_coupling(c)
+        return unit, phys.sky_gain(fl, unit, freq_hz, az, el, ground)
+
+    unit, g_unit = _memo(key, make)
+    return abs(phys.thevenin_scale(unit, c)) ** 2 * g_unit
 
 
 def no_pickup(prep: Prepared) -> dict:

@@ -310,6 +310,23 @@ def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevati
     return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
 
 
+def thevenin_scale(ref: Coupling, c: Coupling) -> complex:
+    """The factor that turns the port response worked with coupling ``ref`` into the one with ``c`` on the same
+    route and ground: I_A = V_oc / (Z_th + Z_A) with V_oc and Z_th the route's alone (module docstring), so
+    e(c) = e(ref) (Z_th + Z_A,ref) / (Z_th + Z_A) (divider / divider_ref) sqrt(load / load_ref); ``ref`` must have
+    a nonzero divider and load (a unit one: :func:`unit_coupling`)."""
+    return complex(
+        (ref.z_th + ref.z_end) / (c.z_th + c.z_end) * (c.divider / ref.divider) * np.sqrt(c.load_ohm / ref.load_ohm)
+    )
+
+
+def unit_coupling(c: Coupling) -> Coupling:
+    """``c`` with a unit divider and a 1 ohm load (what :func:`thevenin_scale` scales from)."""
+    from dataclasses import replace
+
+    return replace(c, divider=1.0 + 0j, load_ohm=1.0)
+
+
 def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
     """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon."""
     ev, eh = sky_response(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
@@ -329,27 +346,42 @@ def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
     return np.linspace(0.0, fl.length_m, n)
 
 
+def _gauss(n: int):
+    from snrgain.antennas.vertical import gauss_legendre
+
+    return gauss_legendre(n)
+
+
+def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
+    """The points (N, 2) [m] and heights (N,) [m] :func:`route_emf` takes the field at: the run's samples ``x``,
+    then (a raised run) :data:`LEAD_POINTS` Gauss-Legendre points up the antenna end's lead and the station's."""
+    b = fl.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    pts = np.asarray(fl.start_m, dtype=float)[None, :] + np.asarray(x)[:, None] * u[None, :]
+    heights = np.full(len(pts), fl.wire_height_m)
+    if fl.buried:
+        return pts, heights
+    t, _ = _gauss(LEAD_POINTS)
+    zs = (t + 1) * fl.wire_height_m / 2
+    ends = np.array([pts[0], pts[-1]])
+    return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
+
+
 def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
-    :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads."""
+    :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads.  The
+    run and both leads in one call of the field (:func:`route_points`)."""
     b = fl.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
     x = route_samples(fl, freq_hz, closest_m)
-    pts = np.asarray(fl.start_m, dtype=float)[None, :] + x[:, None] * u[None, :]
-    heights = np.full(len(x), fl.wire_height_m)
-    if fl.buried:
-        e = field(pts, heights)
-        return x, e[:, 0] * u[0] + e[:, 1] * u[1], np.zeros(2, dtype=complex)
-    # the run and both leads in one call of the field (one pass over the source's terms)
-    h = fl.wire_height_m
-    t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
-    zs = (t + 1) * h / 2
-    ends = np.array([pts[0], pts[-1]])
-    e = field(np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)]))
+    e = field(*route_points(fl, x))
     n = len(x)
     emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
-    lead = (e[n:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
+    if fl.buried:
+        return x, emf, np.zeros(2, dtype=complex)
+    _, wq = _gauss(LEAD_POINTS)
+    lead = (e[n:, 2].reshape(2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
     return x, emf, lead
 
 
