@@ -77,6 +77,7 @@ from snrgain.fields import (
     make_ground,
     quantity,
 )
+from snrgain.memo import Memo
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients, rod_resistance_ohm
 
@@ -182,6 +183,8 @@ def termination_figure(pattern, bearing_rad: float, elevation_rad: float, metric
 
 SKY_SWEEP = np.geomspace(0.15, 3.0, 12)
 """The resistors an "snr" termination tries under the sky, in units of |Z0| (then refined between neighbours)."""
+SKY_REFINE = (6, 4)
+"""Points of each finer grid between the best resistor's neighbours (log R), the second around the first's best."""
 
 
 class SkyTermination:
@@ -201,25 +204,28 @@ class SkyTermination:
 
     def termination_under_sky(self, freq_hz: float, score, target: str):
         """The antenna with the resistor of highest score [dB] fixed: a sweep over SKY_SWEEP x |Z0| and |Z0| itself,
-        refined by a golden-section search in log R between the best point's neighbours.  ``score(variants)`` gives
-        the score of each of a list of variants (the sweep's in one call)."""
+        refined between the best point's neighbours by two finer grids in log R (SKY_REFINE points each, the second
+        around the best of the first), each grid scored in one call of ``score(variants)`` (the score of each of a
+        list of variants): three passes of the ranking's products in all, to about 2 % in R."""
         from snrgain.antennas.base import variant
 
         matched = max(self.matched_termination_ohm(freq_hz), 1.0)
         tried: dict[float, float] = {}
 
-        def value(r):
-            r = float(r)
-            if r not in tried:
-                tried[r] = float(score([variant(self, termination=r)])[0])
-            return tried[r]
+        def run(values):
+            values = [float(r) for r in values if float(r) not in tried]
+            if values:
+                tried.update(zip(values, (float(s) for s in score([variant(self, termination=r) for r in values]))))
 
-        values = sorted({*(matched * SKY_SWEEP), matched})
-        scores = [float(s) for s in score([variant(self, termination=float(r)) for r in values])]
-        tried.update(zip(map(float, values), scores))
-        i = int(np.argmax(scores))
-        lo, hi = values[max(i - 1, 0)], values[min(i + 1, len(values) - 1)]
-        golden_max(lambda x: value(np.exp(x)), np.log(lo), np.log(hi), xtol=0.02, maxiter=8)
+        run(sorted({*(matched * SKY_SWEEP), matched}))
+        values = sorted(tried)
+        i = int(np.argmax([tried[r] for r in values]))
+        lo, hi = np.log(values[max(i - 1, 0)]), np.log(values[min(i + 1, len(values) - 1)])
+        for n in SKY_REFINE:
+            step = (hi - lo) / (n + 1)
+            run(np.exp(lo + step * np.arange(1, n + 1)))
+            best = np.log(max(tried, key=tried.get))
+            lo, hi = best - step, best + step
         best = max(tried, key=tried.get)
         out = variant(self, termination=best)
         rs = sorted(tried)
@@ -409,6 +415,15 @@ def _line_integrals(w: PlaneWave, g: complex, L: float):
     return jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus
 
 
+def line_denominator(line: lines.LineConstants, length_m: float, z_feed: complex) -> tuple[complex, complex]:
+    """(D0, D1) of :func:`feed_current_forms` (scaled by e^{-gL} like the numerators): the only part of the feed
+    current that depends on the feed load, one number each."""
+    g, z0 = line.gamma, line.z0
+    e2 = np.exp(-2 * g * length_m)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    return z0 * z_feed * ch + z0**2 * sh, z0 * ch + z_feed * sh
+
+
 def feed_current_forms(
     w: PlaneWave, *, line: lines.LineConstants, length_m: float, z_feed: complex, drive_v, drive_h, v_end
 ):
@@ -418,8 +433,7 @@ def feed_current_forms(
     forms the wave once."""
     g, z0, L = line.gamma, line.z0, length_m
     _, _, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, L)
-    d0 = z0 * z_feed * ch + z0**2 * sh
-    d1 = z0 * ch + z_feed * sh
+    d0, d1 = line_denominator(line, L, z_feed)
     q0, q1 = 0.5 * z0 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
     e0, e1 = v_end * (z0 * ch - z0 * eg * phase_l), v_end * sh
     return (drive_v * q0 + e0, drive_v * q1 + e1), (drive_h * q0, drive_h * q1), (d0, d1)
@@ -481,6 +495,11 @@ def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, po
     return np.where(above_horizon(elevation_rad), scale * current, 0.0)
 
 
+_FORMS = Memo(48)
+"""A wire's response forms on a set of directions (:meth:`LongWire._response_forms`), by everything but its
+resistor."""
+
+
 class LongWire(SkyTermination, TransformerFeed, Antenna):
     """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
@@ -498,6 +517,7 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         self.bearing_rad = params.bearing
         self._cache: dict[float, lines.LineConstants] = {}
         self._auto_term: dict[tuple, float] = {}
+        self._form_key: str | None = None
 
     # -- the line and its loads --------------------------------------------------------
     def _connection_ohm(self, value) -> float:
@@ -663,9 +683,51 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         return {pol: (i_f[n], None if i_r is None else i_r[n]) for n, pol in enumerate(("v", "h"))}, w
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
-        currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad)
         load = self.receiver_load_ohm(freq_hz)
-        return tuple(port_response(freq_hz, currents[pol][0], load_ohm=load, elevation_rad=w.el) for pol in ("v", "h"))
+        z_far = self.far_load_ohm(freq_hz) if self.terminated else None
+        if z_far is None or type(self).currents is not LongWire.currents:
+            currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad)
+            return tuple(
+                port_response(freq_hz, currents[pol][0], load_ohm=load, elevation_rad=w.el) for pol in ("v", "h")
+            )
+        (av, bv), (ah, bh), el = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
+        d0, d1 = line_denominator(self.line(freq_hz), self.length_m, load + self.feed_rod_ohm)
+        den = d0 + z_far * d1
+        shape = np.broadcast_shapes(np.shape(azimuth_rad), np.shape(elevation_rad))
+        return tuple(
+            port_response(freq_hz, (a + z_far * b) / den, load_ohm=load, elevation_rad=el).reshape(shape)
+            for a, b in ((av, bv), (ah, bh))
+        )
+
+    def _response_forms(self, freq_hz, azimuth_rad, elevation_rad):
+        """((A_v, B_v), (A_h, B_h), elevations) of :func:`feed_current_forms` on these directions: the feed currents
+        for any far load Z and feed load are (A + Z B) / (D0 + Z D1) with :func:`line_denominator`, so they are kept
+        for the same wire with another resistor or transformer (a termination searched under the sky tries many on
+        the same sky; the result is the same to rounding as :meth:`currents`)."""
+        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+        az, el = np.ascontiguousarray(az), np.ascontiguousarray(el)
+        if self._form_key is None:
+            self._form_key = type(self).__name__ + self.params.model_dump_json(
+                exclude={"position", "name", "termination", "feed_line"}
+            )
+
+        def make():
+            w = plane_wave(freq_hz, az, el, bearing_rad=self.bearing_rad, ground=self.ground)
+            f_v, f_h = field_along_wire(w, self.wire_height_m())
+            lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
+            forms = feed_current_forms(
+                w,
+                line=self.line(freq_hz),
+                length_m=self.length_m,
+                z_feed=0.0,
+                drive_v=-w.cos_dphi * f_v[w.inv],
+                drive_h=-w.sin_dphi * f_h[w.inv],
+                v_end=lead,
+            )
+            return (*forms[:2], w.el)
+
+        key = (self._form_key, float(freq_hz), az.shape, az.tobytes(), el.tobytes())
+        return _FORMS.get(key, make)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""

@@ -32,10 +32,10 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
-from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
+from snrgain.physics.quadrature import gauss_legendre
 
 
 class SmallLoopParams(WireSize, AntennaParams):

@@ -80,10 +80,10 @@ from snrgain.antennas.longwire import (
     termination_figure,
     vertical_emf,
 )
-from snrgain.antennas.vertical import gauss_legendre
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
+from snrgain.physics.quadrature import gauss_legendre
 
 AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 """Resistors tried by termination = "auto" [ohm]."""
@@ -108,6 +108,8 @@ class TerminatedLoopParams(WireSize, AntennaParams):
 
 
 _GL_X, _GL_W = np.polynomial.legendre.leggauss(8)
+_GL3_X, _GL3_W = np.polynomial.legendre.leggauss(3)
+NEAR_LENGTHS = 4.0
 FEED_GAP_M = 0.02
 """Half the gap at the feed and at the termination where the loop's two halves part [m] (the constants barely
 depend on it: 0.01 or 0.1 m move the capacitance by under 2 %)."""
@@ -160,11 +162,21 @@ def _segments(path, step_m: float, gap_m: float = 0.0):
 
 def _mean_inverse_distance(centres, vectors, radius_m, sources=None):
     """Mean over each source segment of 1 / distance from each centre (thin wire: the radius added in
-    quadrature), by 8-point Gauss-Legendre; the exact mean on each segment's own centre."""
+    quadrature), by 8-point Gauss-Legendre within NEAR_LENGTHS segment lengths and 3-point beyond (where the
+    3-point rule's error, of order 0.05 (length / 2 distance)^6, is under 2e-7 of the mean)."""
     src_c, src_v = (centres, vectors) if sources is None else sources
-    pts = src_c[None, :, None, :] + (0.5 * _GL_X)[None, None, :, None] * src_v[None, :, None, :]
-    r = np.sqrt(np.sum((centres[:, None, None, :] - pts) ** 2, axis=-1) + radius_m**2)
-    return np.sum((0.5 * _GL_W) / r, axis=-1)
+    cx, cz = centres[:, 0][:, None], centres[:, 1][:, None]
+    lens = np.hypot(src_v[:, 0], src_v[:, 1])
+    out = np.zeros((len(centres), len(src_c)))
+    for t, w in zip(_GL3_X, _GL3_W):
+        px, pz = src_c[:, 0] + 0.5 * t * src_v[:, 0], src_c[:, 1] + 0.5 * t * src_v[:, 1]
+        out += (0.5 * w) / np.sqrt((cx - px) ** 2 + (cz - pz) ** 2 + radius_m**2)
+    d2 = (cx - src_c[:, 0]) ** 2 + (cz - src_c[:, 1]) ** 2
+    ii, jj = np.nonzero(d2 < (NEAR_LENGTHS * lens[None, :]) ** 2)
+    pts = src_c[jj][:, None, :] + (0.5 * _GL_X)[None, :, None] * src_v[jj][:, None, :]
+    r = np.sqrt(np.sum((centres[ii][:, None, :] - pts) ** 2, axis=-1) + radius_m**2)
+    out[ii, jj] = np.sum((0.5 * _GL_W) / r, axis=-1)
+    return out
 
 
 def loop_constants(upper, lower, radius_m: float, image: float = -1.0):

@@ -36,7 +36,6 @@ noise alike, so it changes SNR only where receiver noise matters.
 
 from __future__ import annotations
 
-from functools import lru_cache
 from typing import Literal
 
 import numpy as np
@@ -45,18 +44,13 @@ from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, registe
 from snrgain.antennas.geometry import distinct
 from snrgain.fields import GroundField, make_ground, quantity
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
+from snrgain.physics.quadrature import gauss_legendre
 
 MAX_HEIGHT_WAVELENGTHS = 0.625
 """The sinusoidal-current model is used up to a 5/8-wave vertical."""
 
 _NZ = 24
 _NPSI = 96
-
-
-@lru_cache(maxsize=8)
-def gauss_legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
-    """Gauss-Legendre nodes and weights on [-1, 1] (computed once per order)."""
-    return np.polynomial.legendre.leggauss(n)
 
 
 class VerticalParams(AntennaParams):

@@ -292,8 +292,8 @@ def _wire_points(wire, src, freq_hz, reference_m):
     """(feed [m], samples x [m], the point groups (points, heights)) at which :func:`snrgain.model.placed`'s
     reading of a long wire takes a source's field: its samples along the wire, then the leads (as
     snrgain.model.placed._currents_on builds them)."""
-    from snrgain.antennas.vertical import gauss_legendre
     from snrgain.model import placed
+    from snrgain.physics.quadrature import gauss_legendre
 
     feed = np.asarray(placed.antenna_point(wire, reference_m), dtype=float)
     b = wire.bearing_rad

@@ -47,7 +47,9 @@ from __future__ import annotations
 import numpy as np
 
 from noisemodels import nearground
+from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.quadrature import gauss_legendre
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
 """The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
@@ -182,16 +184,30 @@ def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) 
     axis = orientation_rad(src) if kind == "horizontal" else 0.0
     eps = None if ground is None else ground.permittivity
     sig = None if ground is None else ground.conductivity_s_per_m
-    e = nearground.field(
-        freq_hz,
-        rel,
-        source_height_m=src.height_m,
-        kind=kind,
-        axis_rad=axis,
-        permittivity=eps,
-        conductivity_s_per_m=sig,
-    )
-    return e * np.sqrt(share)
+
+    def make():
+        e = nearground.field(
+            freq_hz,
+            rel,
+            source_height_m=src.height_m,
+            kind=kind,
+            axis_rad=axis,
+            permittivity=eps,
+            conductivity_s_per_m=sig,
+        )
+        return e * np.sqrt(share)
+
+    if rel.size > 3 * FIELD_MEMO_POINTS:
+        return make()
+    key = (float(src.height_m), kind, float(axis), float(share), float(freq_hz), eps, sig, rel.tobytes())
+    return _FIELDS.get(key, make)
+
+
+_FIELDS = Memo(64)
+"""A placed source's field at the points last asked (:func:`field_vector`): a wire that does not move is asked at
+the same points for every resistor a termination search tries and every variant of the spreads."""
+FIELD_MEMO_POINTS = 20_000
+"""Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
 
 LEAD_POINTS = 6
@@ -225,7 +241,7 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
     current = np.trapezoid(emf * transfer[None, :], x, axis=1)
     if wire.has_leads and h > 0:
-        t, wq = np.polynomial.legendre.leggauss(LEAD_POINTS)
+        t, wq = gauss_legendre(LEAD_POINTS)
         zs = (t + 1) * h / 2
         ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
         ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))

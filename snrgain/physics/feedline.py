@@ -72,6 +72,7 @@ import numpy as np
 
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.quadrature import gauss_legendre
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -346,12 +347,6 @@ def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
     return np.linspace(0.0, fl.length_m, n)
 
 
-def _gauss(n: int):
-    from snrgain.antennas.vertical import gauss_legendre
-
-    return gauss_legendre(n)
-
-
 def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     """The points (N, 2) [m] and heights (N,) [m] :func:`route_emf` takes the field at: the run's samples ``x``,
     then (a raised run) :data:`LEAD_POINTS` Gauss-Legendre points up the antenna end's lead and the station's."""
@@ -361,7 +356,7 @@ def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     heights = np.full(len(pts), fl.wire_height_m)
     if fl.buried:
         return pts, heights
-    t, _ = _gauss(LEAD_POINTS)
+    t, _ = gauss_legendre(LEAD_POINTS)
     zs = (t + 1) * fl.wire_height_m / 2
     ends = np.array([pts[0], pts[-1]])
     return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
@@ -380,7 +375,7 @@ def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
     emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
     if fl.buried:
         return x, emf, np.zeros(2, dtype=complex)
-    _, wq = _gauss(LEAD_POINTS)
+    _, wq = gauss_legendre(LEAD_POINTS)
     lead = (e[n:, 2].reshape(2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
     return x, emf, lead
 

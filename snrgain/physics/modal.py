@@ -55,6 +55,7 @@ import numpy as np
 
 from noisemodels.groundwave import complex_permittivity
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
+from snrgain.physics.quadrature import gauss_legendre
 
 
 def _sqrt_re(z):
@@ -71,11 +72,6 @@ def _cquad(f, a, b) -> complex:
     return complex(re, im)
 
 
-@lru_cache(maxsize=8)
-def _nodes(n: int) -> tuple[np.ndarray, np.ndarray]:
-    return np.polynomial.legendre.leggauss(n)
-
-
 def _pair(parts, edges, adaptive: bool) -> tuple[complex, complex]:
     """The integrals of the two integrands ``parts(lam) -> (f1, f2)`` over [edges[0], edges[-1]]: 160-point
     Gauss-Legendre on each piece between edges, all pieces evaluated in one pass (each node's square roots
@@ -85,7 +81,7 @@ def _pair(parts, edges, adaptive: bool) -> tuple[complex, complex]:
         one = sum(_cquad(lambda t: parts(t)[0], a, b) for a, b in pieces)
         two = sum(_cquad(lambda t: parts(t)[1], a, b) for a, b in pieces)
         return complex(one), complex(two)
-    x, w = _nodes(160)
+    x, w = gauss_legendre(160)
     lo = np.array([a for a, _ in pieces])[:, None]
     half = 0.5 * (np.array([b for _, b in pieces])[:, None] - lo)
     t = (half * (x + 1.0) + lo).ravel()

@@ -64,6 +64,7 @@ import numpy as np
 
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
+from snrgain.physics.quadrature import gauss_legendre
 
 MAX_TX_HEIGHT_WAVELENGTHS = 0.3
 """The induced-EMF model of the vertical's current holds to about 0.3 wavelength (coupling.py)."""
@@ -282,7 +283,7 @@ def field_vector_at(tx: TxVertical, freq_hz: float, points_m, z_m) -> np.ndarray
     rel[close, 0] = 4 * tx.radius_m
     rel[close, 1] = 0.0
     rel[:, 2] = np.broadcast_to(np.asarray(z_m, dtype=float), len(p))
-    t, w = np.polynomial.legendre.leggauss(SEGMENT_POINTS)
+    t, w = gauss_legendre(SEGMENT_POINTS)
     zs, ws = (t + 1) * h / 2, w * h / 2
     current = np.sin(k * (big_h - zs)) / np.sin(k * big_h)
     g = v.ground
@@ -324,8 +325,33 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
     distance at each height (:func:`_field_table`, interpolated in log distance; within 1e-3 of the direct sum from
     1 m out, a test): a long wire asks at a few heights only (its own and its leads' quadrature points), at many
     places (a layout's trials, a resistor searched under the sky)."""
-    pts = np.atleast_2d(np.asarray(pts, dtype=float))
-    heights = np.broadcast_to(np.asarray(heights, dtype=float), (len(pts),))
+    pts = np.ascontiguousarray(np.atleast_2d(np.asarray(pts, dtype=float)))
+    heights = np.ascontiguousarray(np.broadcast_to(np.asarray(heights, dtype=float), (len(pts),)))
+    if len(pts) > ALONG_MEMO_POINTS:
+        return _field_along_now(tx, freq_hz, pts, heights)
+    key = (
+        "along",
+        tx.vertical.params.model_dump_json(),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        pts.tobytes(),
+        heights.tobytes(),
+    )
+    return _ALONG.get(key, lambda: _field_along_now(tx, freq_hz, pts, heights))
+
+
+_ALONG = Memo(64)
+"""The vertical's field along a wire as last asked (:func:`_field_along`): the same points for every resistor a
+termination search tries and every ground variant of the spreads (the wire does not move)."""
+ALONG_MEMO_POINTS = 20_000
+"""Larger requests (a layout's many places at once) are worked afresh rather than kept."""
+
+
+def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: np.ndarray) -> np.ndarray:
+    if len(heights) and np.any(heights != heights[0]) and len(heights) < len(TABLE_RHO_M):
+        # up a wire's down-leads: a few points at each of several heights, fewer than one height's table holds
+        return field_vector_at(tx, freq_hz, pts, heights)
     d = pts - np.asarray(tx.position_m, dtype=float)[None, :]
     rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
     k = 2 * np.pi * freq_hz / C_M_PER_S
@@ -398,7 +424,7 @@ def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[compl
             ez = field_at(tx, freq_hz, points, np.full(len(points), z))
         else:
             lo, hi = float(part.params.height), float(part.params.height) + float(span)
-            zq = lo + (hi - lo) * (0.5 + 0.5 * np.polynomial.legendre.leggauss(4)[0])
+            zq = lo + (hi - lo) * (0.5 + 0.5 * gauss_legendre(4)[0])
             ez = np.mean([field_at(tx, freq_hz, points, np.full(len(points), zz)) for zz in zq], axis=0)
             ez = ez + loop_correction(part, tx, freq_hz, points, lo, hi)
         if len(points) == 1:
@@ -435,9 +461,33 @@ def scattered(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_ra
     if tx.load_ohm is None:
         return np.zeros(az.shape, dtype=complex)
     c, ref = coupling_terms(antenna, tx, freq_hz, at_m) if terms is None else terms
-    k = 2 * np.pi * freq_hz / C_M_PER_S
-    d = np.asarray(tx.position_m, dtype=float) - ref
-    phi = np.exp(1j * k * np.cos(el) * (d[0] * np.sin(az) + d[1] * np.cos(az)))
-    e_tx = vertical_response(tx, freq_hz, az, el)
-    z = self_impedance(tx, freq_hz) + tx.load_ohm
-    return c * effective_height_scale(tx, freq_hz) * e_tx * phi / z
+    return c * _reradiated(tx, freq_hz, az, el, ref)
+
+
+def _reradiated(tx: TxVertical, freq_hz: float, az, el, ref) -> np.ndarray:
+    """The vertical's re-radiation per unit coupling term on a set of directions, in the phase of the antenna's
+    reference point ``ref``: kept for the next antenna or resistor at the same point asking on the same sky."""
+    az, el = np.ascontiguousarray(az, dtype=float), np.ascontiguousarray(el, dtype=float)
+    ref = np.asarray(ref, dtype=float)
+
+    def make():
+        k = 2 * np.pi * freq_hz / C_M_PER_S
+        d = np.asarray(tx.position_m, dtype=float) - ref
+        phi = np.exp(1j * k * np.cos(el) * (d[0] * np.sin(az) + d[1] * np.cos(az)))
+        e_tx = vertical_response(tx, freq_hz, az, el)
+        z = self_impedance(tx, freq_hz) + tx.load_ohm
+        return effective_height_scale(tx, freq_hz) * e_tx * phi / z
+
+    key = (
+        "reradiated",
+        tx.vertical.params.model_dump_json(),
+        tuple(map(float, tx.position_m)),
+        complex(tx.load_ohm),
+        float(tx.radius_m),
+        float(freq_hz),
+        ref.tobytes(),
+        az.shape,
+        az.tobytes(),
+        el.tobytes(),
+    )
+    return _TABLES.get(key, make)
