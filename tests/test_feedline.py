@@ -209,6 +209,12 @@ def test_a_long_wires_own_amplitude_is_placed_reading_to_the_bit():
         )
         np.testing.assert_allclose(route[1], emf, rtol=1e-12)
         np.testing.assert_allclose(route[2], lead, rtol=1e-12)
+        # the route's current kept once and scaled to each coupling (Thevenin) is the current worked anew
+        rod, loop, load = antenna_loads(bev, F)
+        for fl in (_shield(), _shield(choke=700.0), _shield(isolation="transformer")):
+            c = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+            direct = phys.emf_current(fl, c, x, emf, lead)
+            assert feedline._route_current(fl, c, src, "vertical", F, GROUND, got) == pytest.approx(direct, rel=1e-9)
 
 
 def test_the_memoised_sky_pattern_scaled_by_thevenin_is_the_pattern_worked_anew():

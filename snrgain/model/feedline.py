@@ -213,7 +213,7 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
         for k, (fl, c, coherent) in out.items():
             for kind, _ in placed.dipoles(src):
                 got = _fields(fl, antennas[k] if coherent else None, src, kind, f, ref_m, ground)
-                b = port_amplitude(f, phys.emf_current(fl, c, *_route_emf(fl, src, kind, f, ground, got)), c.load_ohm)
+                b = port_amplitude(f, _route_current(fl, c, src, kind, f, ground, got), c.load_ohm)
                 p[k] += abs(b) ** 2
                 if coherent:  # one source drives both: their currents in the load add as phasors
                     a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground, got)
@@ -252,7 +252,8 @@ def _wire_key(wire, reference_m) -> tuple:
 def _fields(fl, wire, src, kind, freq_hz, reference_m, ground) -> dict:
     """The source's field at every point the feed line's route asks for (``"route"``: route_points) and, for a long
     wire whose own amplitude is wanted (``wire``), at its samples and leads (``"wire"``: one array per group, in
-    the order snrgain.model.placed's reading asks for them), in one call of the field (each call's own cost
+    the order snrgain.model.placed's reading asks for them; ``"wire_at"``: its feed and samples), in one call of the
+    field (each call's own cost
     dominates at a few hundred points), memoised by the geometry and the source, not the loads."""
     long_wire = wire is not None and wire.integrates_near_sources and hasattr(wire, "receiver_load_ohm")
     key = (
@@ -264,13 +265,15 @@ def _fields(fl, wire, src, kind, freq_hz, reference_m, ground) -> dict:
 
     def evaluate():
         groups = [phys.route_points(fl, phys.route_samples(fl, freq_hz, _closest(fl, src)))]
+        feed = x = None
         if long_wire:
-            groups += _wire_points(wire, src, freq_hz, reference_m)[2]
+            feed, x, more = _wire_points(wire, src, freq_hz, reference_m)
+            groups += more
         e = placed_field(
             src, np.vstack([g[0] for g in groups]), np.concatenate([g[1] for g in groups]), freq_hz, ground, kind
         )
         parts = np.split(e, np.cumsum([len(g[0]) for g in groups])[:-1])
-        return {"route": parts[0], "wire": parts[1:] if long_wire else None}
+        return {"route": parts[0], "wire": parts[1:] if long_wire else None, "wire_at": (feed, x)}
 
     return _memo(key, evaluate)
 
@@ -322,6 +325,21 @@ def _route_emf(fl, src, kind, freq_hz, ground, got=None):
     return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
 
 
+def _route_current(fl, c, src, kind, freq_hz, ground, got=None) -> complex:
+    """:func:`snrgain.physics.feedline.emf_current` of a placed source's dipole with coupling ``c``: worked once per
+    route and source with a unit coupling and scaled to ``c`` by Thevenin's theorem (a termination tried, a choke,
+    another antenna end on the same route cost one product; :func:`snrgain.physics.feedline.current_scale`)."""
+    key = ("route-current", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.station_ground_ohm)
+    key = (*key, _source_key(src, kind, freq_hz, ground))
+
+    def make():
+        unit = phys.unit_coupling(c)
+        return unit, phys.emf_current(fl, unit, *_route_emf(fl, src, kind, freq_hz, ground, got))
+
+    unit, current = _memo(key, make)
+    return complex(current * phys.current_scale(unit, c))
+
+
 def placed_field(src, pts, heights, freq_hz, ground, kind):
     from snrgain.model import placed
 
@@ -354,7 +372,7 @@ def _wire_amplitude(wire, src, kind, freq_hz, reference_m, ground, got=None) -> 
     from snrgain.antennas.longwire import port_response
     from snrgain.model import placed
 
-    feed, x, _ = _wire_points(wire, src, freq_hz, reference_m)
+    feed, x = _wire_points(wire, src, freq_hz, reference_m)[:2] if got is None else got["wire_at"]
     field = _replay(None if got is None else got["wire"], src, kind, freq_hz, ground)
     i_f = placed.wire_currents_in_field(wire, freq_hz, feed[None, :], x, field)[0]
     e = port_response(

@@ -311,14 +311,17 @@ def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevati
     return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
 
 
+def current_scale(ref: Coupling, c: Coupling) -> complex:
+    """The factor that turns the current in the receiver's load worked with coupling ``ref`` into the one with
+    ``c`` on the same route and ground: I_A = V_oc / (Z_th + Z_A) with V_oc and Z_th the route's alone (module
+    docstring), so I(c) = I(ref) (Z_th + Z_A,ref) / (Z_th + Z_A) (divider / divider_ref); ``ref`` must have a
+    nonzero divider (a unit one: :func:`unit_coupling`)."""
+    return complex((ref.z_th + ref.z_end) / (c.z_th + c.z_end) * (c.divider / ref.divider))
+
+
 def thevenin_scale(ref: Coupling, c: Coupling) -> complex:
-    """The factor that turns the port response worked with coupling ``ref`` into the one with ``c`` on the same
-    route and ground: I_A = V_oc / (Z_th + Z_A) with V_oc and Z_th the route's alone (module docstring), so
-    e(c) = e(ref) (Z_th + Z_A,ref) / (Z_th + Z_A) (divider / divider_ref) sqrt(load / load_ref); ``ref`` must have
-    a nonzero divider and load (a unit one: :func:`unit_coupling`)."""
-    return complex(
-        (ref.z_th + ref.z_end) / (c.z_th + c.z_end) * (c.divider / ref.divider) * np.sqrt(c.load_ohm / ref.load_ohm)
-    )
+    """:func:`current_scale` for a port response (:func:`sky_response`), whose load enters as its square root."""
+    return current_scale(ref, c) * complex(np.sqrt(c.load_ohm / ref.load_ohm))
 
 
 def unit_coupling(c: Coupling) -> Coupling:
