@@ -104,7 +104,8 @@ def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
       :func:`snrgain.antennas.termloop.halves_capacitance`), the shield on the lower half's terminal of a flag, on
       one terminal at the bottom middle of a small loop; the flag's halves joined around by its termination, the
       loop's inductance and wire loss, the small loop's by its own wire, the load as the family's gain takes it (a
-      flag's transformer load, the small loop's conjugate match);
+      flag's transformer load, the small loop's conjugate match; a loop of several turns: the capacitance of one,
+      the inductance times the turns squared);
     - an array: the phasing unit's output at its place, a series EMF in a port of :data:`ARRAY_PORT_OHM` (the
       matched combiner), its common grounded by :data:`PHASING_UNIT_GROUND_OHM` (assumed: the arrays give none).
     Where the wiring fixes no sign between the feed line's path and the antenna's own (a loop's terminals, a phasing
