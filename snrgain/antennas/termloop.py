@@ -206,6 +206,15 @@ def _loop_constants(upper: tuple, lower: tuple, radius_m: float, image: float):
     return inductance, float(c_diff), moment
 
 
+def halves_capacitance(upper, lower, radius_m: float, image: float = -1.0) -> np.ndarray:
+    """The Maxwell capacitance matrix [F] of the loop's two halves over a ground of static image factor ``image``:
+    [[upper, upper-lower], [lower-upper, lower]], the charge on each for unit potential on each (the moment solution
+    of :func:`loop_constants`; the common-mode capacitance to earth is the sum of its entries)."""
+    _, p_own, p_image, heights, nu = _loop_matrices(_key(upper), _key(lower), float(radius_m))
+    q = np.linalg.solve((p_own + image * p_image) / (4 * np.pi * EPS0_F_PER_M), np.eye(len(heights)))
+    return np.array([[q[:nu, :nu].sum(), q[:nu, nu:].sum()], [q[nu:, :nu].sum(), q[nu:, nu:].sum()]])
+
+
 def _key(points) -> tuple:
     return tuple(tuple(float(x) for x in p) for p in points)
 

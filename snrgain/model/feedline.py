@@ -16,7 +16,8 @@ noise (its own pickup over its own plus the antenna's), the SNR gain it costs (w
 resistance that brings its own pickup 20 dB below the antenna's at the worst hour listened are read from the
 products (:func:`summary`) into the antenna's build sheet, and a notice names an antenna whose feed line costs more
 than :data:`COST_WARNING_DB`.  Only candidates take a feed line (the site's levels are read on the reference as it
-stands), and only antennas grounded at the feed through a transformer (the long wires): :func:`antenna_loads`.
+stands): long wires, verticals, loops and arrays (:func:`antenna_end` says what the shield meets at each one's feed;
+a ``feed-line-ground-assumed`` notice names an antenna whose ground there is snrgain's assumption).
 """
 
 from __future__ import annotations
@@ -82,6 +83,107 @@ def antenna_loads(antenna, freq_hz: float) -> tuple[float, complex, float]:
     return float(rod), z_in + load, load
 
 
+PHASING_UNIT_GROUND_OHM = 50.0
+"""The ground a phasing unit's common stands on when the array gives none [ohm]: one short ground rod in average
+soil (tens to a few hundred ohm: common practice; snrgain's assumption, said in a notice)."""
+ARRAY_PORT_OHM = 75.0
+"""A phasing unit's output port [ohm]: the coax it drives, the matched lossless combiner of snrgain.antennas.array."""
+
+
+def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
+    """(what the shield meets at the antenna's feed, in words, whether that ground is snrgain's assumption) for each
+    family that takes a feed line (read from what it exposes, never its name); ValueError for one that takes none.
+
+    - a long wire: its feed ground rod with its own loop across it (:func:`antenna_loads`);
+    - a vertical: its radial system or rod, the ``ground_loss`` its pattern is worked with, with the vertical's
+      own loop across it: its radiation resistance and the receiver's load, the conjugate match its realized gain
+      assumes (the reactances cancel: loop 2 R_rad + R_ground, load R_rad + R_ground).  The shield's share through
+      the load is then a series EMF I_A (R_ground || loop) in the antenna's loop, as for the long wires;
+    - a terminated loop (flag) or a small loop: no ground at the feed (:func:`snrgain.physics.feedline.floating_end`):
+      the loop's two halves over the earth (their capacitance matrix by the thin-wire moment solution of
+      :func:`snrgain.antennas.termloop.halves_capacitance`), the shield on the lower half's terminal of a flag, on
+      one terminal at the bottom middle of a small loop; the flag's halves joined around by its termination, the
+      loop's inductance and wire loss, the small loop's by its own wire, the load as the family's gain takes it (a
+      flag's transformer load, the small loop's conjugate match; a loop of several turns: the capacitance of one,
+      the inductance times the turns squared);
+    - an array: the phasing unit's output at its place, a series EMF in a port of :data:`ARRAY_PORT_OHM` (the
+      matched combiner), its common grounded by :data:`PHASING_UNIT_GROUND_OHM` (assumed: the arrays give none).
+    Where the wiring fixes no sign between the feed line's path and the antenna's own (a loop's terminals, a phasing
+    unit's), the two add in power for a placed source (the mean over the two ways of wiring it)."""
+    f = float(freq_hz)
+    if antenna.composite:
+        raise ValueError(
+            f"a feed line belongs to one of the antennas a {antenna.family} combines, not to the combination"
+        )
+    if getattr(antenna, "feed_rod_ohm", None) is not None:
+        rod, loop, load = antenna_loads(antenna, f)
+        return phys.grounded_end(rod_ohm=rod, loop_ohm=loop, load_ohm=load), f"its feed ground rod ({rod:g} ohm)", False
+    if antenna.phased and getattr(antenna, "elements", None):
+        end = phys.grounded_end(rod_ohm=PHASING_UNIT_GROUND_OHM, loop_ohm=2 * ARRAY_PORT_OHM, load_ohm=ARRAY_PORT_OHM)
+        return (
+            phys.replace_end(end, coherent=False),
+            f"the phasing unit's ground (assumed {PHASING_UNIT_GROUND_OHM:g} ohm)",
+            True,
+        )
+    if hasattr(antenna, "radiation_resistance_ohm") and hasattr(antenna, "ground_loss_ohm"):
+        r_rad, r_g = float(antenna.radiation_resistance_ohm(f)), float(antenna.ground_loss_ohm)
+        end = phys.grounded_end(rod_ohm=r_g, loop_ohm=2 * r_rad + r_g, load_ohm=r_rad + r_g)
+        return end, f"its radial system or rod (ground_loss {r_g:g} ohm)", False
+    if hasattr(antenna, "termination_ohm") and hasattr(antenna, "statics"):
+        return _flag_end(antenna, f), "no ground: the loop over the earth", False
+    if hasattr(antenna, "input_resistance_ohm") and hasattr(antenna, "area_m2"):
+        return _small_loop_end(antenna, f), "no ground: the loop over the earth", False
+    raise ValueError(
+        "a feed line is modelled on the long wires, verticals, loops and arrays (through the feed's ground or the "
+        f"loop's capacitance to the earth); a {antenna.family} has neither"
+    )
+
+
+def _flag_end(antenna, f: float) -> phys.End:
+    from snrgain.antennas.termloop import halves_capacitance, static_image_factor
+    from snrgain.physics import lines
+
+    c = halves_capacitance(
+        antenna.upper, antenna.lower, antenna.params.radius_m, static_image_factor(antenna.ground, f)
+    )
+    c = c[::-1, ::-1]  # the shield on the lower half's terminal: P = lower, Q = upper
+    inductance = antenna.statics(f)[0]
+    skin = float(np.real(lines.wire_internal_impedance(f, antenna.params.radius_m))) * antenna.perimeter_m
+    other = antenna.termination_ohm(f) + skin + 2j * np.pi * f * inductance
+    return phys.floating_end(f, c, other_ohm=other, load_ohm=antenna.receiver_load_ohm(f))
+
+
+def _small_loop_end(antenna, f: float) -> phys.End:
+    from snrgain.antennas.termloop import halves_capacitance, loop_constants, static_image_factor
+
+    p = antenna.params
+    z1, z2, w = p.height - p.loop_height / 2, p.height + p.loop_height / 2, p.width
+    a = [(w / 2, z1), (0.0, z1), (0.0, z2), (w / 2, z2)]  # the halves, from the feed at the bottom middle
+    b = [(w / 2, z1), (w, z1), (w, z2), (w / 2, z2)]
+    image = static_image_factor(antenna.ground, f)
+    c = halves_capacitance(a, b, p.radius_m, image)
+    inductance = loop_constants(a, b, p.radius_m, image)[0] * p.turns**2
+    r_rad, r_loss = antenna.input_resistance_ohm(f)
+    z_in = complex(r_rad + r_loss, 2 * np.pi * f * inductance)
+    return phys.floating_end(f, c, other_ohm=z_in, load_ohm=np.conj(z_in))
+
+
+def feed_point(antenna, reference_m=None) -> tuple[float, float]:
+    """Where an antenna's feed line starts [m east, m north]: its ``position`` (an array's phasing unit: its
+    ``position`` when given, else the centre of its elements); ValueError naming ``position`` for one that stands
+    nowhere on the plan."""
+    pos = getattr(antenna, "positions", None)
+    if antenna.params.position is not None:
+        return float(antenna.params.position[0]), float(antenna.params.position[1])
+    if pos is not None and len(pos):
+        c = np.asarray(pos, dtype=float).mean(axis=0)
+        return float(c[0]), float(c[1])
+    raise ValueError(
+        "position: a feed line runs from the antenna's feed point to the station; give the antenna a position "
+        "[east, north] on the site plan"
+    )
+
+
 def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
     """The couplings of every antenna with a feed line (``sc.feed_lines``, by name, its route starting where the
     antenna stands) and their pickup of each placed source; ``powers``: the antennas' own (snrgain.model.placed.pickup),
@@ -99,24 +201,29 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
         fl = feeds.get(a.name)
         if fl is None or k == 0:
             continue
-        start = tuple(float(v) for v in placed.antenna_point(a, ref_m))
+        start = feed_point(a, ref_m)
         if fl.start_m != start:
             from dataclasses import replace
 
             fl = replace(fl, start_m=start)
-        rod, loop, load = antenna_loads(a, f)
-        out[k] = (fl, phys.coupling(fl, f, ground, rod_ohm=rod, loop_ohm=loop, load_ohm=load))
+        end, _, _ = antenna_end(a, f, ground)
+        out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
     fl_powers, effects = {}, {}
     for src in (s for s in sc.noise.local if s.position_m is not None):
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
-        for k, (fl, c) in out.items():
+        for k, (fl, c, coherent) in out.items():
             for kind, _ in placed.dipoles(src):
-                b = port_amplitude(f, phys.emf_current(fl, c, *_route_emf(fl, src, kind, f, ground)), c.load_ohm)
-                a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground)
+                got = _fields(fl, antennas[k] if coherent else None, src, kind, f, ref_m, ground)
+                b = port_amplitude(f, _route_current(fl, c, src, kind, f, ground, got), c.load_ohm)
                 p[k] += abs(b) ** 2
-                d[k] += abs(a + b) ** 2 - abs(a) ** 2
+                if coherent:  # one source drives both: their currents in the load add as phasors
+                    a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground, got)
+                    d[k] += abs(a + b) ** 2 - abs(a) ** 2
+                else:
+                    d[k] += abs(b) ** 2
         fl_powers[src.name], effects[src.name] = p, d
-    return Prepared(out, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
+    lines_ = {k: (fl, c) for k, (fl, c, _) in out.items()}
+    return Prepared(lines_, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
 
 
 MEMO_SIZE = 2048
@@ -135,14 +242,103 @@ def _source_key(src, kind, freq_hz, ground):
     return (where, kind, float(freq_hz), g)
 
 
-def _route_emf(fl, src, kind, freq_hz, ground):
-    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source."""
+def _wire_key(wire, reference_m) -> tuple:
+    """What a long wire's samples and leads depend on (not its loads)."""
+    from snrgain.model import placed
+
+    feed = tuple(float(v) for v in placed.antenna_point(wire, reference_m))
+    return (feed, float(wire.bearing_rad), float(wire.length_m), float(wire.wire_height_m()), bool(wire.has_leads))
+
+
+def _fields(fl, wire, src, kind, freq_hz, reference_m, ground) -> dict:
+    """The source's field at every point the feed line's route asks for (``"route"``: route_points) and, for a long
+    wire whose own amplitude is wanted (``wire``), at its samples and leads (``"wire"``: one array per group, in
+    the order snrgain.model.placed's reading asks for them; ``"wire_at"``: its feed and samples), in one call of the
+    field (each call's own cost
+    dominates at a few hundred points), memoised by the geometry and the source, not the loads."""
+    long_wire = wire is not None and wire.integrates_near_sources and hasattr(wire, "receiver_load_ohm")
+    key = (
+        "fields",
+        (fl.start_m, fl.end_m, fl.height_m, fl.depth_m),
+        _wire_key(wire, reference_m) if long_wire else None,
+        _source_key(src, kind, freq_hz, ground),
+    )
+
+    def evaluate():
+        groups = [phys.route_points(fl, phys.route_samples(fl, freq_hz, _closest(fl, src)))]
+        feed = x = None
+        if long_wire:
+            feed, x, more = _wire_points(wire, src, freq_hz, reference_m)
+            groups += more
+        e = placed_field(
+            src, np.vstack([g[0] for g in groups]), np.concatenate([g[1] for g in groups]), freq_hz, ground, kind
+        )
+        parts = np.split(e, np.cumsum([len(g[0]) for g in groups])[:-1])
+        return {"route": parts[0], "wire": parts[1:] if long_wire else None, "wire_at": (feed, x)}
+
+    return _memo(key, evaluate)
+
+
+def _replay(parts, src, kind, freq_hz, ground):
+    """A field ``field(points, heights)`` that gives ``parts`` in turn (the arrays :func:`_fields` worked for the
+    calls a reading makes, in their order) and works the field itself for a call it holds nothing of that size."""
+    queue = list(parts or ())
 
     def field(pts, heights):
+        if queue and len(queue[0]) == len(pts):
+            return queue.pop(0)
         return placed_field(src, pts, heights, freq_hz, ground, kind)
 
+    return field
+
+
+def _wire_points(wire, src, freq_hz, reference_m):
+    """(feed [m], samples x [m], the point groups (points, heights)) at which :func:`snrgain.model.placed`'s
+    reading of a long wire takes a source's field: its samples along the wire, then the leads (as
+    snrgain.model.placed._currents_on builds them)."""
+    from snrgain.model import placed
+    from snrgain.physics.quadrature import gauss_legendre
+
+    feed = np.asarray(placed.antenna_point(wire, reference_m), dtype=float)
+    b = wire.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    to_src = np.asarray(src.position_m, dtype=float) - feed
+    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, wire.length_m) * u)))
+    x = placed.wire_samples(wire.length_m, freq_hz, float(np.hypot(closest, src.height_m)))
+    feeds = feed[None, :]
+    h = wire.wire_height_m()
+    pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
+    groups = [(pts, np.full(len(pts), h))]
+    if wire.has_leads and h > 0:
+        t, _ = gauss_legendre(placed.LEAD_POINTS)
+        zs = (t + 1) * h / 2
+        ends = np.concatenate([feeds, feeds + wire.length_m * u[None, :]])
+        groups.append((np.repeat(ends, placed.LEAD_POINTS, axis=0), np.tile(zs, 2)))
+    return feed, x, groups
+
+
+def _route_emf(fl, src, kind, freq_hz, ground, got=None):
+    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source
+    (``got``: :func:`_fields`' arrays)."""
     key = ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+    parts = None if got is None else [got["route"]]
+    field = _replay(parts, src, kind, freq_hz, ground)
     return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
+
+
+def _route_current(fl, c, src, kind, freq_hz, ground, got=None) -> complex:
+    """:func:`snrgain.physics.feedline.emf_current` of a placed source's dipole with coupling ``c``: worked once per
+    route and source with a unit coupling and scaled to ``c`` by Thevenin's theorem (a termination tried, a choke,
+    another antenna end on the same route cost one product; :func:`snrgain.physics.feedline.current_scale`)."""
+    key = ("route-current", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.station_ground_ohm)
+    key = (*key, _source_key(src, kind, freq_hz, ground))
+
+    def make():
+        unit = phys.unit_coupling(c)
+        return unit, phys.emf_current(fl, unit, *_route_emf(fl, src, kind, freq_hz, ground, got))
+
+    unit, current = _memo(key, make)
+    return complex(current * phys.current_scale(unit, c))
 
 
 def placed_field(src, pts, heights, freq_hz, ground, kind):
@@ -151,11 +347,15 @@ def placed_field(src, pts, heights, freq_hz, ground, kind):
     return placed.field_vector(src, pts, heights, freq_hz, ground, kind=kind)
 
 
-def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
+def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground, got=None) -> complex:
     """The antenna's own amplitude from a placed source's dipole (snrgain.model.placed.received_amplitudes, its
-    first: a long wire's), memoised by the antenna's parameters (its termination and place among them)."""
+    first), memoised by the antenna's parameters (its termination and place among them).  A long wire's: the
+    source's field along it (the costly part) memoised by its geometry alone, so a termination search or a turns
+    ratio tried pays only the line's transfer (:func:`_wire_amplitude`)."""
     from snrgain.model import placed
 
+    if antenna.integrates_near_sources and hasattr(antenna, "receiver_load_ohm"):
+        return _wire_amplitude(antenna, src, kind, freq_hz, reference_m, ground, got)
     key = (
         "own",
         type(antenna).__name__,
@@ -164,6 +364,22 @@ def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground) -> complex:
         _source_key(src, kind, freq_hz, ground),
     )
     return _memo(key, lambda: placed.received_amplitudes(antenna, src, freq_hz, reference_m, ground, kind=kind)[0])
+
+
+def _wire_amplitude(wire, src, kind, freq_hz, reference_m, ground, got=None) -> complex:
+    """:func:`snrgain.model.placed.received_amplitudes` of a long wire (the same samples and reciprocity integral,
+    snrgain.model.placed.wire_currents_in_field), with the source's field at its samples from :func:`_fields`
+    (``got``; worked here without it)."""
+    from snrgain.antennas.longwire import port_response
+    from snrgain.model import placed
+
+    feed, x = _wire_points(wire, src, freq_hz, reference_m)[:2] if got is None else got["wire_at"]
+    field = _replay(None if got is None else got["wire"], src, kind, freq_hz, ground)
+    i_f = placed.wire_currents_in_field(wire, freq_hz, feed[None, :], x, field)[0]
+    e = port_response(
+        freq_hz, np.array([i_f]), load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=np.array([src.elevation_rad])
+    )
+    return complex(e[0])
 
 
 def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex:
@@ -201,8 +417,25 @@ def gains(prep: Prepared, sc, reference_gains):
     caches = [reference_gains.caches[0]]
     for k in sorted(prep.lines):
         fl, c = prep.lines[k]
-        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: phys.sky_gain(fl, c, f, az, el, ground)))
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: sky_gain(fl, c, f, az, el, ground)))
     return snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches)))
+
+
+def sky_gain(fl: phys.FeedLine, c: phys.Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
+    """:func:`snrgain.physics.feedline.sky_gain`, its responses memoised by route, ground and directions and scaled
+    to each coupling by Thevenin's theorem (:func:`snrgain.physics.feedline.thevenin_scale`): a termination search,
+    a choke or another antenna end on the same route costs one scaling of the pattern, not its evaluation."""
+    az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
+    g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
+    route = (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m)
+    key = ("sky", route, fl.station_ground_ohm, float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
+
+    def make():
+        unit = phys.unit_coupling(c)
+        return unit, phys.sky_gain(fl, unit, freq_hz, az, el, ground)
+
+    unit, g_unit = _memo(key, make)
+    return abs(phys.thevenin_scale(unit, c)) ** 2 * g_unit
 
 
 def no_pickup(prep: Prepared) -> dict:
@@ -252,7 +485,10 @@ def summary(sc, nominal, k: int) -> dict | None:
     cost = target_statistic(sc, g_without[None])[0] - target_statistic(sc, g_with[None])[0]
     ratio = float(np.max((mine / own)[listened])) if np.any(listened) else float(np.max(mine / own))
     choke = phys.choke_for_ratio(fl, c, sc.freq_hz, ratio * 10 ** (QUIET_BELOW_DB / 10))
+    end_text, assumed = _end_words(sc, k)
     return {
+        "antenna_end": end_text,
+        "antenna_ground_assumed": assumed,
         "route_m": [list(fl.start_m), list(fl.end_m)],
         "length_m": fl.length_m,
         "height_m": fl.height_m,
@@ -270,9 +506,17 @@ def summary(sc, nominal, k: int) -> dict | None:
     }
 
 
+def _end_words(sc, k: int) -> tuple[str, bool]:
+    """(what the shield meets at antenna ``k``'s feed, in words; whether its ground is snrgain's assumption)."""
+    _, words, assumed = antenna_end(sc.antennas[k], sc.freq_hz, sc.site.ground)
+    return words, assumed
+
+
 def notices(results) -> list:
     """``feed-line-cost`` for each antenna whose feed line costs more than :data:`COST_WARNING_DB` of SNR gain
-    toward some target (values: cost_db, the worst target's; noise_share_db; choke_ohm, the choke that quiets it)."""
+    toward some target (values: cost_db, the worst target's; noise_share_db; choke_ohm, the choke that quiets it),
+    and ``feed-line-ground-assumed`` for each whose ground at the feed is snrgain's assumption (a phasing unit's:
+    antenna_end, ground_ohm)."""
     from snrgain.model.notices import Notice
 
     out = []
@@ -280,6 +524,14 @@ def notices(results) -> list:
         fl = (r.build or {}).get("feed_line")
         if not fl:
             continue
+        if fl.get("antenna_ground_assumed"):
+            out.append(
+                Notice(
+                    "feed-line-ground-assumed",
+                    r.name,
+                    {"antenna_end": fl["antenna_end"], "ground_ohm": PHASING_UNIT_GROUND_OHM},
+                )
+            )
         costs = [c for c in fl["snr_gain_cost_db"] if np.isfinite(c)]
         if costs and max(costs) > COST_WARNING_DB:
             out.append(

@@ -96,6 +96,11 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{v[f'{other}_rdf_change_db']:+.1f} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
             + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
         )
+    if n.code == "feed-line-ground-assumed":
+        return (
+            f"{n.antenna}: its feed line's shield is taken to meet {v['antenna_end']} ({v['ground_ohm']:g} ohm to "
+            "earth: snrgain's assumption, one short rod); a better ground there lowers the feed line's share"
+        )
     if n.code == "feed-line-cost":
         choke = (
             f"a common-mode choke of about {v['choke_ohm']:.0f} ohm at the antenna puts it {v['quiet_below_db']:g} dB "

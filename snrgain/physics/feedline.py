@@ -55,6 +55,29 @@ metre in 1, 2, 4 segments (junction 123, 234, 496 ohm); carried back to no junct
 on the 100, 20 and 50 ohm rods, within 1 dB of the model.  A 5 kohm choke: 0.0 to -1.5 dB against NEC's -0.5 to
 +0.5 dB.
 
+Compact antennas (:class:`End`).  What the shield meets at the antenna, past its isolation, is the end's
+common-mode impedance Z_cm and a current divider, the share of I_A through the receiver's load:
+
+- a grounded feed (:func:`grounded_end`: a long wire's rod, a vertical's radial system, a phasing unit's ground):
+  Z_cm = Z_rod || Z_loop and the divider Z_rod / (Z_rod + Z_loop), as above;
+- a loop with no ground at its feed (:func:`floating_end`: a flag, a small loop): its two halves are conductors over
+  the earth with a Maxwell capacitance matrix (charge per unit potential; the thin-wire moment solution of the
+  electrostatic problem, R. F. Harrington, "Field Computation by Moment Methods" (1968), its first chapters, cited from
+  memory), joined at the feed by the receiver's load and around the loop by its termination, inductance and wire
+  loss.  The shield joins one half; the lumped circuit's nodal equations give Z_cm and the load's current.  A
+  9 m by 4.5 m flag of 1 mm wire 1 m over 5 mS/m holds 171 pF to the earth (-j508 ohm at 1.83 MHz), so a choke
+  must be several kohm before it changes Z_cm much.
+
+Where the wiring fixes no sign between the two paths (a loop's terminals, a phasing unit's output), a placed
+source's paths add in power (the mean over both ways of wiring; :attr:`End.coherent`).
+
+Independent check of a compact case (tests/nec/make_feedline_compact.py: Debian's nec2c over the same ground; a 6 m
+vertical on a 40 or 100 ohm ground, its RG-6 shield 60-150 m at 1 m to a 25 ohm station ground, a small vertical
+source 10 m from the shield).  The SNR the shield costs with the source alone, model / NEC (dB): 5.5 / 8.1 (100 m,
+40 ohm), 4.3 / -0.9 (60 m, 100 ohm: the paths partly cancel), 19.6 / 16.7 (150 m, the source near the station);
+NEC's own spread (the ground junction split finer, 123 -> 234 ohm) moves its figures to 11.6, 2.6, 18.6 dB.  A 5
+kohm choke: -1.0 to -0.2 dB against NEC's 0.4 to 0.6 dB.
+
 Values from memory (not checked against a datasheet; snrgain's assumption): the cables' jacket and braid
 diameters in :data:`CABLES`; an isolation transformer's interwinding capacitance of 20 pF
 (:data:`INTERWINDING_F`; small two-winding transformers on ferrite cores, 5-30 pF); a choke's impedance taken as
@@ -196,9 +219,60 @@ class FeedLine:
 
 
 @dataclass(frozen=True)
+class End:
+    """What the shield meets at the antenna end, past its isolation: ``z_cm`` the antenna end's common-mode
+    impedance to earth [ohm], ``divider`` the share of the shield's current I_A that runs through the receiver's
+    load (complex, with the sign of :func:`field_current`), ``load_ohm`` that load's resistance [ohm] (the port
+    response's), and ``ground_ohm`` the ground at the feed the shield meets (None: none, a floating loop)."""
+
+    z_cm: complex
+    divider: complex
+    load_ohm: float
+    ground_ohm: float | None = None
+    coherent: bool = True
+    """Whether the wiring fixes the sign between the feed line's current in the load and the antenna's own (a
+    grounded feed: yes; a loop's terminals or a phasing unit's output: either way round)."""
+
+
+def replace_end(end: End, **changes) -> End:
+    """``end`` with ``changes`` (dataclasses.replace)."""
+    from dataclasses import replace
+
+    return replace(end, **changes)
+
+
+def grounded_end(*, rod_ohm: float, loop_ohm: complex, load_ohm: float) -> End:
+    """A feed grounded through a rod (or a radial system) with the antenna's own loop across it (the long wires,
+    a vertical, a phasing unit's output): Z_cm = Z_rod || Z_loop, the current divider Z_rod / (Z_rod + Z_loop)
+    (module docstring)."""
+    rod = complex(rod_ohm)
+    par = rod * loop_ohm / (rod + loop_ohm) if rod != 0 else 0j
+    return End(complex(par), complex(rod / (rod + loop_ohm)), float(load_ohm), float(rod_ohm))
+
+
+def floating_end(freq_hz: float, capacitance_f, *, other_ohm: complex, load_ohm: complex) -> End:
+    """A loop with no ground at its feed (a flag, a small loop): the shield joins one terminal of the loop's feed,
+    the near half P; the loop's two halves are conductors over the earth with the Maxwell capacitance matrix
+    ``capacitance_f`` [[C_PP, C_PQ], [C_QP, C_QQ]] [F] (near half first), joined at the feed by the receiver's
+    load Z_L (``load_ohm``, complex) and around the loop by ``other_ohm`` (the termination and the loop's own
+    inductance and loss; the loop's wire alone for an unterminated loop).  Nodal analysis of that lumped circuit
+    with I_A injected into P: Y V = (I_A, 0) with Y = j w C + (1 / Z_pq) [[1, -1], [-1, 1]], Z_pq = Z_L || Z_other;
+    Z_cm = V_P / I_A and the load's current (V_P - V_Q) / Z_L, taken with the sign of the grounded case's divider
+    (from the shield's half toward the other through the load).  ``load_ohm``'s real part is the port's."""
+    c = np.asarray(capacitance_f, dtype=complex)
+    w = 2 * np.pi * freq_hz
+    z_l, z_o = complex(load_ohm), complex(other_ohm)
+    y_pq = 1.0 / z_l + 1.0 / z_o
+    y = 1j * w * c + y_pq * np.array([[1.0, -1.0], [-1.0, 1.0]])
+    v = np.linalg.solve(y, np.array([1.0, 0.0], dtype=complex))
+    return End(complex(v[0]), complex((v[0] - v[1]) / z_l), float(np.real(z_l)), None, coherent=False)
+
+
+@dataclass(frozen=True)
 class Coupling:
     """The circuit at the antenna end at one frequency: the shield's line, Z_th (its input impedance toward the
-    station), Z_A (the antenna end's load), the share of I_A through the receiver's load, and that load [ohm]."""
+    station), Z_A (the antenna end's load: the isolation in series with the end's Z_cm), the share of I_A through
+    the receiver's load, and that load [ohm]."""
 
     line: lines.LineConstants
     z_th: complex
@@ -215,13 +289,15 @@ class Coupling:
 def coupling(fl: FeedLine, freq_hz: float, ground, *, rod_ohm: float, loop_ohm: complex, load_ohm: float) -> Coupling:
     """The antenna end's circuit (module docstring): ``rod_ohm`` the antenna's feed ground, ``loop_ohm`` its own
     loop (line input impedance plus receiver load), ``load_ohm`` the receiver's load through the transformer."""
+    return coupling_at(fl, freq_hz, ground, grounded_end(rod_ohm=rod_ohm, loop_ohm=loop_ohm, load_ohm=load_ohm))
+
+
+def coupling_at(fl: FeedLine, freq_hz: float, ground, end: End) -> Coupling:
+    """The antenna end's circuit for any :class:`End` (:func:`grounded_end`, :func:`floating_end`)."""
     ln = fl.line(freq_hz, ground)
     z_th = lines.input_impedance(ln, length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
-    rod = complex(rod_ohm)
-    par = rod * loop_ohm / (rod + loop_ohm) if rod != 0 else 0j
-    z_end = fl.isolation_ohm(freq_hz) + par
-    divider = rod / (rod + loop_ohm)
-    return Coupling(ln, complex(z_th), complex(z_end), complex(divider), float(load_ohm))
+    z_end = fl.isolation_ohm(freq_hz) + end.z_cm
+    return Coupling(ln, complex(z_th), complex(z_end), complex(end.divider), float(end.load_ohm))
 
 
 def choke_for_ratio(fl: FeedLine, c: Coupling, freq_hz: float, reduction: float) -> float:
@@ -258,6 +334,26 @@ def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevati
     return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
 
 
+def current_scale(ref: Coupling, c: Coupling) -> complex:
+    """The factor that turns the current in the receiver's load worked with coupling ``ref`` into the one with
+    ``c`` on the same route and ground: I_A = V_oc / (Z_th + Z_A) with V_oc and Z_th the route's alone (module
+    docstring), so I(c) = I(ref) (Z_th + Z_A,ref) / (Z_th + Z_A) (divider / divider_ref); ``ref`` must have a
+    nonzero divider (a unit one: :func:`unit_coupling`)."""
+    return complex((ref.z_th + ref.z_end) / (c.z_th + c.z_end) * (c.divider / ref.divider))
+
+
+def thevenin_scale(ref: Coupling, c: Coupling) -> complex:
+    """:func:`current_scale` for a port response (:func:`sky_response`), whose load enters as its square root."""
+    return current_scale(ref, c) * complex(np.sqrt(c.load_ohm / ref.load_ohm))
+
+
+def unit_coupling(c: Coupling) -> Coupling:
+    """``c`` with a unit divider and a 1 ohm load (what :func:`thevenin_scale` scales from)."""
+    from dataclasses import replace
+
+    return replace(c, divider=1.0 + 0j, load_ohm=1.0)
+
+
 def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
     """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon."""
     ev, eh = sky_response(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
@@ -277,24 +373,36 @@ def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
     return np.linspace(0.0, fl.length_m, n)
 
 
+def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
+    """The points (N, 2) [m] and heights (N,) [m] :func:`route_emf` takes the field at: the run's samples ``x``,
+    then (a raised run) :data:`LEAD_POINTS` Gauss-Legendre points up the antenna end's lead and the station's."""
+    b = fl.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    pts = np.asarray(fl.start_m, dtype=float)[None, :] + np.asarray(x)[:, None] * u[None, :]
+    heights = np.full(len(pts), fl.wire_height_m)
+    if fl.buried:
+        return pts, heights
+    t, _ = gauss_legendre(LEAD_POINTS)
+    zs = (t + 1) * fl.wire_height_m / 2
+    ends = np.array([pts[0], pts[-1]])
+    return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
+
+
 def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
-    :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads."""
+    :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads.  The
+    run and both leads in one call of the field (:func:`route_points`)."""
     b = fl.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
     x = route_samples(fl, freq_hz, closest_m)
-    pts = np.asarray(fl.start_m, dtype=float)[None, :] + x[:, None] * u[None, :]
-    e = field(pts, np.full(len(x), fl.wire_height_m))
-    emf = e[:, 0] * u[0] + e[:, 1] * u[1]
-    lead = np.zeros(2, dtype=complex)
-    if not fl.buried:
-        h = fl.wire_height_m
-        t, wq = gauss_legendre(LEAD_POINTS)
-        zs = (t + 1) * h / 2
-        ends = np.array([pts[0], pts[-1]])
-        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2))
-        lead = (ez[:, 2].reshape(2, LEAD_POINTS) @ wq) * h / 2
+    e = field(*route_points(fl, x))
+    n = len(x)
+    emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
+    if fl.buried:
+        return x, emf, np.zeros(2, dtype=complex)
+    _, wq = gauss_legendre(LEAD_POINTS)
+    lead = (e[n:, 2].reshape(2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
     return x, emf, lead
 
 

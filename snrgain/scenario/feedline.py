@@ -89,10 +89,10 @@ def resolve_feed_lines(
     sections: dict, antennas, wheres, site, reference_m, freq_hz: float, station_ground_ohm: float
 ) -> tuple[dict, list]:
     """name -> snrgain.physics.feedline.FeedLine for each antenna whose table gave a feed line (``sections``: where
-    -> FeedLineSection), ending at the station ground ([site] station_ground), and the problems: an antenna without
-    a feed ground, a run shorter than 1 m, a run that leaves the lot (``site.lot_m``, a resolved Site)."""
-    from snrgain.model.feedline import antenna_loads
-    from snrgain.model.placed import antenna_point
+    -> FeedLineSection), ending at the station ground ([site] station_ground), and the problems: an antenna that
+    takes no feed line (snrgain.model.feedline.antenna_end), one without a position, a run shorter than 1 m, a run
+    that leaves the lot (``site.lot_m``, a resolved Site)."""
+    from snrgain.model.feedline import antenna_end, feed_point
 
     out, problems = {}, []
     for ant, where in zip(antennas, wheres):
@@ -101,8 +101,13 @@ def resolve_feed_lines(
             continue
         field = f"{where}.{FEED_LINE_KEY}"
         try:
-            antenna_loads(ant, freq_hz)
-            fl = sec.resolved(antenna_point(ant, reference_m), station_ground_ohm)
+            start = feed_point(ant, reference_m)
+        except ValueError as exc:
+            problems.append((f"{where}.position", str(exc).removeprefix("position: ")))
+            continue
+        try:
+            antenna_end(ant, freq_hz, site.ground)
+            fl = sec.resolved(start, station_ground_ohm)
         except ValueError as exc:
             problems.append((field, str(exc)))
             continue
