@@ -87,13 +87,13 @@ BANDS = ((3.0, 10.0), (10.0, 30.0), (30.0, 100.0), (100.0, 1000.0), (1000.0, 400
 # observation heights 0-15 m), each component counted where it is over 10 % of the whole field.  Within 3 km the
 # ground's part is the Sommerfeld integrals by numpy quadrature (noisemodels.halfspace), beyond it the closed form.
 # Measured, then a margin of about 0.2 dB:
-#   vertical dipole, whole field:      0.000 0.000 0.001 0.001 0.414
-#   vertical dipole, vertical field:   0.000 0.000 0.001 0.001 0.468
-#   vertical dipole, radial field:     0.000 0.000 0.002 0.004 0.042
-#   horizontal dipole, whole field:    0.000 0.000 0.002 0.020 0.445
-#   horizontal dipole, vertical:       0.000 0.000 0.002 0.046 0.539
-#   horizontal dipole, radial:         0.000 0.000 0.017 0.006 0.026
-#   horizontal dipole, across:         0.000 0.000 0.008 0.015 0.015
+#   vertical dipole, whole field:      0.000 0.000 0.000 0.000 0.414
+#   vertical dipole, vertical field:   0.000 0.000 0.000 0.000 0.468
+#   vertical dipole, radial field:     0.000 0.000 0.001 0.001 0.042
+#   horizontal dipole, whole field:    0.000 0.000 0.001 0.009 0.445
+#   horizontal dipole, vertical:       0.000 0.000 0.001 0.012 0.539
+#   horizontal dipole, radial:         0.000 0.000 0.005 0.006 0.026
+#   horizontal dipole, across:         0.000 0.000 0.003 0.002 0.015
 # (the 1-30 km band's worst points are the closed form's, at 10-30 km; at 3 km the integrals give 0.00x dB).
 # Before the integrals, the closed form alone was out by up to 0.8 / 3.1 / 4.8 dB (vertical dipole) and 8.0 /
 # 13.2 / 9.5 dB (horizontal dipole's vertical / radial / across field) within 1 km.
@@ -101,10 +101,10 @@ TOLERANCE_DB = {
     ("vertical", "total"): (0.2, 0.2, 0.2, 0.2, 0.6),
     ("vertical", "z"): (0.2, 0.2, 0.2, 0.2, 0.7),
     ("vertical", "rho"): (0.2, 0.2, 0.2, 0.2, 0.25),
-    ("horizontal", "total"): (0.2, 0.2, 0.2, 0.25, 0.65),
-    ("horizontal", "z"): (0.2, 0.2, 0.2, 0.25, 0.75),
-    ("horizontal", "rho"): (0.2, 0.2, 0.25, 0.2, 0.25),
-    ("horizontal", "phi"): (0.2, 0.2, 0.2, 0.25, 0.25),
+    ("horizontal", "total"): (0.2, 0.2, 0.2, 0.2, 0.65),
+    ("horizontal", "z"): (0.2, 0.2, 0.2, 0.2, 0.75),
+    ("horizontal", "rho"): (0.2, 0.2, 0.2, 0.2, 0.25),
+    ("horizontal", "phi"): (0.2, 0.2, 0.2, 0.2, 0.25),
 }
 
 
@@ -249,12 +249,11 @@ def test_halfspace_kernels_remainder_falls_as_lambda_squared():
 
 def test_halfspace_table_against_quadrature_at_the_point():
     # The interpolated table against the same integrals evaluated at each point (no table), over the rows every
-    # kind needs: within 1e-3 of the largest row (measured 5e-4: Q at 46 m at 7.1 MHz, where the table changes
-    # from remainder to whole integrals; 1e-5 elsewhere), moist loam, poor ground and very dry ground.  (Over sea water Q, the
-    # horizontal dipole's vertical Hertz potential, all but vanishes and is interpolated to a few per cent beside
-    # the static terms taken out of it, 30-100 m out at 7 MHz; the field stays within 0.15 dB of the reference.)
+    # kind needs: within 1e-3 of the largest row (measured 3e-4: Q, the horizontal dipole's vertical Hertz
+    # potential, 80-90 m out at 7.1 MHz, where the table changes from remainder to whole integrals; 3e-5 at
+    # 1.8-3.6 MHz), moist loam, poor ground, very dry ground and sea water.
     rng = np.random.default_rng(3)
-    for f, eps, sig in ((1.83e6, 13.0, 0.005), (3.6e6, 5.0, 0.001), (7.1e6, 3.0, 0.0001)):
+    for f, eps, sig in ((1.83e6, 13.0, 0.005), (3.6e6, 5.0, 0.001), (7.1e6, 3.0, 0.0001), (7.1e6, 70.0, 5.0)):
         n2 = complex_permittivity(f, eps, sig)
         rho = np.exp(rng.uniform(np.log(3.0), np.log(3000.0), 12))
         zeta = rng.uniform(0.0, 30.0, 12)
