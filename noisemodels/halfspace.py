@@ -44,6 +44,7 @@ same integrals evaluated at the point (tests).  Beyond 3 km :mod:`noisemodels.ne
 from __future__ import annotations
 
 from collections import OrderedDict
+from functools import lru_cache
 
 import numpy as np
 
@@ -82,20 +83,21 @@ def _poly(c, x):
 def bessel_j0_j1(x) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(J0(x), J1(x), J1(x) / x) for real x >= 0 (J1(x)/x -> 1/2 at 0)."""
     x = np.asarray(x, dtype=float)
+    j0, j1, j1x = np.empty_like(x), np.empty_like(x), np.empty_like(x)
     small = x <= 3.0
-    y = np.where(small, (x / 3.0) ** 2, 0.0)
-    j0 = _poly(_J0_SMALL, y)
-    j1x = _poly(_J1_SMALL, y)
-    j1 = j1x * x
+    xs = x[small]
+    y = (xs / 3.0) ** 2
+    j0[small] = _poly(_J0_SMALL, y)
+    j1x[small] = _poly(_J1_SMALL, y)
+    j1[small] = j1x[small] * xs
     big = ~small
-    if np.any(big):
-        xb = x[big]
-        t = 3.0 / xb
-        amp = 1.0 / np.sqrt(xb)
-        j0[big] = amp * _poly(_J0_F, t) * np.cos(xb + _poly(_J0_T, t))
-        j1b = amp * _poly(_J1_F, t) * np.cos(xb + _poly(_J1_T, t))
-        j1[big] = j1b
-        j1x[big] = j1b / xb
+    xb = x[big]
+    t = 3.0 / xb
+    amp = 1.0 / np.sqrt(xb)
+    j0[big] = amp * _poly(_J0_F, t) * np.cos(xb + _poly(_J0_T, t))
+    j1b = amp * _poly(_J1_F, t) * np.cos(xb + _poly(_J1_T, t))
+    j1[big] = j1b
+    j1x[big] = j1b / xb
     return j0, j1, j1x
 
 
@@ -238,8 +240,13 @@ def _panels(lo: float, hi: float, width: float, graded_toward: float | None = No
     return edges
 
 
+@lru_cache(maxsize=4)
+def _legendre(n: int):
+    return np.polynomial.legendre.leggauss(n)
+
+
 def _gauss(edges: np.ndarray):
-    x, w = np.polynomial.legendre.leggauss(_NODES)
+    x, w = _legendre(_NODES)
     half = np.diff(edges) / 2
     mid = (edges[:-1] + edges[1:]) / 2
     return (mid[:, None] + half[:, None] * x[None, :]).ravel(), (half[:, None] * w[None, :]).ravel()
