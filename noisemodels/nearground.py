@@ -2,12 +2,21 @@
 
 A noise source on the lot (a supply, a lamp, an inverter on a roof) is a small radiator at height h; the field
 wanted is at a point at height z, horizontal distance rho, over a homogeneous earth of complex relative
-permittivity n^2 = eps_r - j sigma / (omega eps0) (phasors exp(+j omega t)).  Closed forms, vectorised:
+permittivity n^2 = eps_r - j sigma / (omega eps0) (phasors exp(+j omega t)).  Vectorised:
 
-    E = E_direct + E_image,near + E_image,TM + E_image,TE
+    E = E_direct + E_ground
 
 - E_direct: the exact field of the dipole in free space (radiation, induction and quasi-static terms; e.g.
   C. A. Balanis, "Antenna Theory", 3rd ed. (2005), eqs. (4-10) and (4-26), in vector form).
+- E_ground within RHO_MAX_M (3 km) horizontally: the exact Sommerfeld integrals of the ground's part
+  (:mod:`noisemodels.halfspace`: numpy quadrature with the large-wavenumber part subtracted in closed form,
+  tabulated per frequency, ground and kind and interpolated; within 0.05 dB of the scipy reference
+  :mod:`noisemodels.sommerfeld` on every component over 10 % of the field, tests/test_nearground.py).
+- E_ground beyond 3 km: the closed form below (within 0.6 dB of the integrals at 3-30 km, the same test; it is
+  1-13 dB out close in, which is why the integrals are used there):
+
+    E_ground = E_image,near + E_image,TM + E_image,TE
+
 - The image: the perfect-ground image (a vertical dipole's image upright, a horizontal one's reversed) at depth
   h.  Its quasi-static term is weighted by the quasi-static image coefficient K = (n^2 - 1) / (n^2 + 1)
   (the near zone of a dipole over a conducting half-space: P. R. Bannister's quasi-static image theory, e.g.
@@ -29,8 +38,9 @@ permittivity n^2 = eps_r - j sigma / (omega eps0) (phasors exp(+j omega t)).  Cl
   it is what lets a horizontal dipole on the ground launch a vertical ground wave, Delta_v times a vertical
   dipole's), b the TE amplitude.
 
-The tests compare this with the exact Sommerfeld integrals (:mod:`noisemodels.sommerfeld`) over 3 m to 30 km,
-heights 0 to 15 m, two grounds and two frequencies, and with image theory on a perfect ground.
+The tests compare both with the exact Sommerfeld integrals (:mod:`noisemodels.sommerfeld`) over 3 m to 30 km,
+heights 0 to 15 m, two grounds and two frequencies, and with image theory on a perfect ground (``permittivity``
+None: image theory, exact).
 
 Normalisation: by -j omega mu0 I l / (4 pi), so a free-space dipole's broadside far field is exp(-j k R) / R
 (a vertical dipole on a perfect ground far away: 2 / R).  Fields are returned as (east, north, up) components.
@@ -40,6 +50,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from noisemodels import halfspace
 from noisemodels.constants import C_M_PER_S
 from noisemodels.groundwave import attenuation, complex_permittivity
 
@@ -95,6 +106,45 @@ def field(
         rad_i, near_i = _dipole_terms(pi, i_rel, k)
         return rad_d + near_d + rad_i + near_i
     n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
+    out = np.empty((len(rel), 3), dtype=complex)
+    rho = np.hypot(rel[:, 0], rel[:, 1])
+    near = rho <= halfspace.RHO_MAX_M
+    if np.any(near):
+        out[near] = rad_d[near] + near_d[near] + _exact_reflected(freq_hz, n2, rel[near], h, kind, p)
+    if not np.all(near):
+        far = ~near
+        out[far] = rad_d[far] + near_d[far] + _closed_form_reflected(n2, k, p, pi, i_rel[far], kind, axis_rad)
+    return out
+
+
+def _exact_reflected(freq_hz: float, n2: complex, rel: np.ndarray, h: float, kind: str, p: np.ndarray) -> np.ndarray:
+    """The ground's part of the field (N, 3) by the Sommerfeld integrals (:mod:`noisemodels.halfspace`)."""
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    rho = np.hypot(rel[:, 0], rel[:, 1])
+    zeta = rel[:, 2] + h
+    ig = halfspace.reflected(freq_hz, n2, rho, zeta, kind) / k**2
+    safe = np.where(rho > 0, rho, 1.0)
+    if kind == "vertical":
+        rho_hat = np.column_stack([rel[:, 0] / safe, rel[:, 1] / safe])
+        return np.column_stack([ig[1] * rho_hat[:, 0], ig[1] * rho_hat[:, 1], ig[0]])
+    # the horizontal dipole along x = its axis, y = z cross x; phi from the axis
+    x_hat = p[:2]
+    y_hat = np.array([-p[1], p[0]])
+    xs, ys = rel[:, :2] @ x_hat, rel[:, :2] @ y_hat
+    c = np.where(rho > 0, xs / safe, 1.0)
+    s = np.where(rho > 0, ys / safe, 0.0)
+    kk = k**2
+    e_rho = c * (kk * ig[2] + ig[5])
+    e_phi = -s * (kk * ig[2] + ig[4])
+    e_z = c * (kk * ig[3] + ig[6])
+    # back to (east, north): rho_hat = c x_hat + s y_hat, phi_hat = -s x_hat + c y_hat
+    e_x = e_rho * c - e_phi * s
+    e_y = e_rho * s + e_phi * c
+    return np.column_stack([e_x * x_hat[0] + e_y * y_hat[0], e_x * x_hat[1] + e_y * y_hat[1], e_z])
+
+
+def _closed_form_reflected(n2, k, p, pi, i_rel, kind, axis_rad):
+    """The ground's part of the field (N, 3) in closed form: the quasi-static image and Norton's TM/TE terms."""
     kq = (n2 - 1) / (n2 + 1)
     # a vertical dipole's image: K on both its induction and quasi-static terms (its charges' image); a horizontal
     # one's induction term, which its current's (vector potential's) image shapes, keeps the perfect image
@@ -130,7 +180,7 @@ def field(
     )
     tm = (r_v * a_tm * g)[:, None] * theta_hat + ((1 - r_v) * f_v * a_pole * g)[:, None] * theta_pole
     te = -(r_h + (1 - r_h) * f_h) * b_te * g
-    return rad_d + near_d + near_i + tm + te[:, None] * phi_hat
+    return near_i + tm + te[:, None] * phi_hat
 
 
 def direct_field(freq_hz: float, rel_m, *, source_height_m: float, kind: str = "vertical", axis_rad: float = 0.0):

@@ -385,9 +385,11 @@ BEVERAGE_CASES = [c for c in REF["cases"] if c["antenna"] == "beverage" and c["g
 def test_a_beverage_beside_the_resonant_vertical_changes_as_nec(case):
     """NEC-2 (tests/nec/scatter.json: a 100 m Beverage 2 m up over eps_r 13, 5 mS/m, the vertical 10-80 m broadside
     of its middle or 10-40 m behind its feed; NEC-2 holds a wire this low only roughly, DESIGN.md): the model's
-    RDF change within 0.3 dB, forward-gain change within 0.6 dB, front-to-back within 1.5 dB (measured: 0.07,
-    0.36 and 0.9 dB at worst).  Behind the feed the vertical acts as a reflector: front-to-back 19 dB at 10 m
-    against the wire's 10 dB alone, in both."""
+    RDF change within 0.35 dB, forward-gain change within 0.6 dB, front-to-back within 1.5 dB, 3.5 dB 10 m behind
+    the feed (measured, with the vertical's field the exact Sommerfeld integrals of noisemodels.halfspace: 0.32 dB
+    broadside at 10 m, 0.30 and 3.2 dB behind at 10 m, 0.9 dB elsewhere; with the closed-form field before, whose
+    radial field was 1-3 dB low here: 0.07, 0.36 and 0.9 dB).  Behind the feed the vertical acts as a reflector:
+    front-to-back 19 dB at 10 m (22 in the model) against the wire's 10 dB alone."""
     bev = _beverage()
     lossy = _antennas("lossy")[1]
     t = TxVertical(lossy, tuple(case["tx_m"]), 50.0, REF["tx"]["radius_m"])
@@ -401,9 +403,9 @@ def test_a_beverage_beside_the_resonant_vertical_changes_as_nec(case):
     d_rdf, d_gain, fb = _changes(with_tx, alone)
     n_rdf, n_gain, n_fb = _changes(case["resonant"], case["alone"])
     assert alone["rdf_db"] == pytest.approx(case["alone"]["rdf_db"], abs=0.3)
-    assert d_rdf == pytest.approx(n_rdf, abs=0.3)
+    assert d_rdf == pytest.approx(n_rdf, abs=0.35)
     assert d_gain == pytest.approx(n_gain, abs=0.6)
-    assert fb == pytest.approx(n_fb, abs=1.5)
+    assert fb == pytest.approx(n_fb, abs=3.5 if (case["place"], case["distance_m"]) == ("behind", 10.0) else 1.5)
     opened = metrics(*with_vertical(bev, t.with_load(None), F_HZ, _AZ, _EL, at_m=(0.0, 0.0)))
     assert opened["rdf_db"] == pytest.approx(alone["rdf_db"], abs=1e-9)  # NEC's open base: within 0.1 dB
     assert abs(case["detuned"]["rdf_db"] - case["alone"]["rdf_db"]) < 0.1
