@@ -1,5 +1,6 @@
 """Figures and the HTML report: non-empty images with the expected axes and traces; valid, complete HTML."""
 
+import io
 import shutil
 import subprocess
 from html.parser import HTMLParser
@@ -282,3 +283,68 @@ def test_workers_setting_is_checked(monkeypatch):
         drawing.workers(4)
     monkeypatch.setenv(drawing.ENV_WORKERS, "1")
     assert drawing.workers(4) == 1
+
+
+@pytest.mark.parametrize("fmt", ["png", "svg"])
+def test_saving_with_one_draw_writes_the_bytes_savefig_writes(results, fmt, monkeypatch):
+    # drawing.save_figure finds the box of savefig(bbox_inches="tight") without savefig's first draw; the file must
+    # be the one savefig writes, byte for byte: a polar plot, an equal-aspect plan, a colour bar (an axes locator),
+    # legends outside the axes.
+    import matplotlib as mpl
+    from matplotlib.figure import Figure
+
+    from snrgain.outputs import drawing
+
+    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")  # SVG ids from a fixed salt, so two files compare
+    opts = {**plots.SAVE_OPTIONS, "metadata": {"Date": None}} if fmt == "svg" else dict(plots.SAVE_OPTIONS)
+    draws = []
+    real_draw = Figure.draw
+    monkeypatch.setattr(Figure, "draw", lambda fig, renderer: draws.append(1) or real_draw(fig, renderer))
+    for make in (plots.azimuth_pattern, plots.site_plan, plots.noise_sky, plots.ranking_chart):
+        fig = make(results)
+        own = io.BytesIO()
+        del draws[:]
+        drawing.save_figure(fig, own, fmt, **opts)
+        assert len(draws) == 1, make.__name__
+        theirs = io.BytesIO()
+        fig.savefig(theirs, format=fmt, **{k: v for k, v in opts.items() if fmt == "png" or k != "pil_kwargs"})
+        assert len(draws) == 3  # savefig's own way draws twice
+        assert own.getvalue() == theirs.getvalue(), make.__name__
+
+
+def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_its_block(results, monkeypatch):
+    # The command starts drawing.Drawer before it evaluates; the jobs reach it pickled, its workers draw them: the
+    # bytes must be those drawn one after the other here, in the jobs' order, and the process must end with the block.
+    import multiprocessing
+    from functools import partial
+
+    import matplotlib as mpl
+
+    from snrgain.outputs import drawing
+
+    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
+    jobs = [
+        (partial(plots.elevation_pattern, results, target_index=0), "png", plots.SAVE_OPTIONS),
+        (partial(plots.ranking_chart, results), "svg", {"bbox_inches": "tight", "metadata": {"Date": None}}),
+        (partial(plots.site_plan, results), "png", plots.SAVE_OPTIONS),
+    ]
+    monkeypatch.setenv(drawing.ENV_WORKERS, "1")
+    here = drawing.draw_all(jobs)
+    monkeypatch.setenv(drawing.ENV_WORKERS, "2")
+    if drawing.workers(len(jobs)) < 2:
+        pytest.skip("one core or no fork here: no figures process is started")
+    counted = []
+    with drawing.Drawer("png", modules=["snrgain.outputs.report"]) as drawer:
+        assert len(multiprocessing.active_children()) == 1  # started before there is anything to draw
+        there = drawer.draw(jobs, done=lambda: counted.append(1), cost=[1.0, 2.0, 1.5])
+    assert there == here and len(counted) == len(jobs)
+    assert not multiprocessing.active_children()
+    # A figure that fails: its error is the command's; an evaluation that fails: the process ends with the block.
+    with pytest.raises(IndexError):
+        with drawing.Drawer("png") as drawer:
+            drawer.draw([(partial(plots.azimuth_pattern, results, target_index=99), "png", plots.SAVE_OPTIONS)])
+    assert not multiprocessing.active_children()
+    with pytest.raises(ValueError, match="bad scenario"):
+        with drawing.Drawer("svg"):
+            raise ValueError("bad scenario")
+    assert not multiprocessing.active_children()

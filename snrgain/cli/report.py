@@ -43,17 +43,32 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     The file has no scripts and loads nothing from the network; it prints cleanly.
     """
     from snrgain.outputs import report as rep
+    from snrgain.outputs.drawing import Drawer
 
     check_output(output, overwrite=overwrite)
-    with progress(None, f"report: evaluating {scenario}"):
-        results, plan = _evaluate(
-            scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
-        )
-    for w in results.warnings:
-        click.echo(f"warning: {w}", err=True)
-    with progress(None, "report: drawing the figures"):
-        html = rep.render(results, plan=plan)
+    # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
+    with Drawer("svg", modules=_RESULT_MODULES) as drawer:
+        with progress(None, f"report: evaluating {scenario}"):
+            results, plan = _evaluate(
+                scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
+            )
+        for w in results.warnings:
+            click.echo(f"warning: {w}", err=True)
+        with progress(None, "report: drawing the figures"):
+            html = rep.render(results, plan=plan, draw=drawer.draw)
     write_output(output, html, overwrite=overwrite)
+
+
+_RESULT_MODULES = (
+    "snrgain.outputs.report",
+    "snrgain.model.results",
+    "snrgain.decide.plan",
+    "noisemodels.sky",
+    "noisemodels.sphere",
+    "noisemodels.p372",
+)
+"""What the figures' process imports before the results reach it: the figure functions and the modules of the
+objects the results hold (unpickling them would import them then)."""
 
 
 def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None, band=None):
@@ -103,48 +118,54 @@ def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None, band=Non
 def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir, reference, band):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
     from snrgain.outputs import plots
+    from snrgain.outputs.drawing import Drawer
 
     d = Path(out_dir)
     if not d.is_dir():
         raise FileNotFoundError(f"folder {d} does not exist")
     names = list(only) or list(plots.FIGURES)
-    with progress(None, f"figures: evaluating {scenario}"):
-        results, plan = _evaluate(
-            scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
-        )
-    if "plan" in names and not plots.has_site_plan(results, plan=plan):
-        if only:
-            raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
-        names.remove("plan")
-    jobs = []
-    for name in names:
-        if name in ("azimuth", "elevation"):
-            for i in range(len(results.targets)):
-                jobs.append((d / f"{name}-target{i + 1}.{fmt}", plots.FIGURES[name], {"target_index": i}))
-        else:
-            jobs.append((d / f"{name}.{fmt}", plots.FIGURES[name], {"plan": plan} if name == "plan" else {}))
-    existing = [str(p) for p, _, _ in jobs if p.exists()]
-    if existing and not overwrite:
-        raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
-    from functools import partial
+    # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
+    with Drawer(fmt, modules=_RESULT_MODULES) as drawer:
+        with progress(None, f"figures: evaluating {scenario}"):
+            results, plan = _evaluate(
+                scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
+            )
+        if "plan" in names and not plots.has_site_plan(results, plan=plan):
+            if only:
+                raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
+            names.remove("plan")
+        jobs = []
+        for name in names:
+            if name in ("azimuth", "elevation"):
+                for i in range(len(results.targets)):
+                    jobs.append((d / f"{name}-target{i + 1}.{fmt}", name, {"target_index": i}))
+            else:
+                jobs.append((d / f"{name}.{fmt}", name, {"plan": plan} if name == "plan" else {}))
+        existing = [str(p) for p, _, _ in jobs if p.exists()]
+        if existing and not overwrite:
+            raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
+        from functools import partial
 
-    from snrgain.files import write_set
-    from snrgain.outputs.drawing import draw_all
+        from snrgain.files import write_set
 
-    drawn: list[bytes] = []
+        drawn: list[bytes] = []
 
-    def writer(k):
-        def write(tmp_path):
-            if not drawn:  # the first file draws them all, side by side, inside the set's temporary folder
-                drawn.extend(
-                    draw_all([(partial(fn, results, **kw), fmt, plots.SAVE_OPTIONS) for _, fn, kw in jobs], done=step)
-                )
-            Path(tmp_path).write_bytes(drawn[k])
+        def writer(k):
+            def write(tmp_path):
+                if not drawn:  # the first file draws them all, side by side, inside the set's temporary folder
+                    drawn.extend(
+                        drawer.draw(
+                            [(partial(plots.FIGURES[n], results, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs],
+                            done=step,
+                            cost=[plots.FIGURE_COST[n] for _, n, _ in jobs],
+                        )
+                    )
+                Path(tmp_path).write_bytes(drawn[k])
 
-        return write
+            return write
 
-    # The set is drawn into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
-    with progress(len(jobs), "figures") as step:
-        written = write_set(d, {p.name: writer(k) for k, (p, _, _) in enumerate(jobs)}, overwrite=overwrite)
+        # The set is drawn into a temporary folder in --dir and moved into place whole (snrgain.files.write_set).
+        with progress(len(jobs), "figures") as step:
+            written = write_set(d, {p.name: writer(k) for k, (p, _, _) in enumerate(jobs)}, overwrite=overwrite)
     for path in written:
         click.echo(f"wrote {path}", err=True)

@@ -1,11 +1,20 @@
 """Figures drawn side by side: each figure made and serialised (PNG or SVG bytes) in a worker process.
 
-Drawing is most of the time of ``report`` and ``figures`` (matplotlib lays out and draws every figure twice for
-a tight bounding box), and one figure does not need another, so on a machine with more than one core the
-figures are shared among forked workers.  A worker inherits the evaluated results by the fork (nothing is
-pickled on the way in) and sends back only the bytes.  Where fork is not available (Windows, macOS' default),
-with one core, one figure, or ``SNRGAIN_WORKERS=1``, the figures are drawn one after the other in this
-process: the bytes are the same either way (tested).
+Drawing is most of the time of ``report`` and ``figures`` after the evaluation, and one figure does not need
+another, so on a machine with more than one core the figures are shared among forked workers.  A worker inherits
+the jobs by the fork and sends back only the bytes.  The heaviest figures are handed out first (``cost``), so no
+worker is left with a large one at the end.
+
+Matplotlib takes a good part of a second to import and to load its fonts; :class:`Drawer` does that in a helper
+process started before the evaluation, on the other core, while the command evaluates the scenario.  When the
+results are there they are sent to the helper once (pickled, a few MB), and the helper forks the workers, which
+inherit matplotlib, the fonts and the results.  The command itself never imports matplotlib.
+
+Where fork is not available (Windows, macOS' default), with one core, one figure, or ``SNRGAIN_WORKERS=1``, the
+figures are drawn one after the other in this process: the bytes are the same either way (tested).
+
+Each figure is saved as ``savefig(bbox_inches="tight")`` saves it, byte for byte, with one draw instead of two
+(:func:`save_figure`).
 """
 
 from __future__ import annotations
@@ -13,6 +22,7 @@ from __future__ import annotations
 import io
 import multiprocessing
 import os
+import pickle
 from collections.abc import Callable, Sequence
 
 ENV_WORKERS = "SNRGAIN_WORKERS"
@@ -23,13 +33,94 @@ _JOBS: Sequence[tuple[Callable, str, dict]] = ()
 
 
 def figure_bytes(fig, fmt: str, **savefig) -> bytes:
-    """One figure serialised as PNG or SVG, closed afterwards."""
+    """One figure serialised as PNG or SVG (:func:`save_figure`), closed afterwards."""
     buf = io.BytesIO()
     try:
-        fig.savefig(buf, format=fmt, **savefig)
+        save_figure(fig, buf, fmt, **savefig)
     finally:
         fig.clear()
     return buf.getvalue()
+
+
+def save_figure(fig, target, fmt: str, **savefig) -> None:
+    """``fig.savefig(target, format=fmt, **savefig)``: the same bytes, with ``bbox_inches="tight"`` found without
+    the draw savefig makes for it (:func:`tight_box`).  PNG-only keywords (``pil_kwargs``) are dropped for SVG."""
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+
+    if fmt != "png":
+        savefig.pop("pil_kwargs", None)
+    engine = fig.get_layout_engine()
+    if (
+        savefig.get("bbox_inches") != "tight"
+        or fmt not in ("png", "svg")
+        or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))
+    ):
+        fig.savefig(target, format=fmt, **savefig)  # e.g. a layout engine that works at each draw: savefig's way
+        return
+    savefig["bbox_inches"] = tight_box(fig, fmt, savefig.get("dpi"), savefig.pop("pad_inches", None))
+    # The placeholder that Figure.tight_layout() leaves behind lays out nothing, but would still make savefig draw
+    # the figure once before the file (to let a layout engine work).
+    fig.set_layout_engine(None)
+    try:
+        fig.savefig(target, format=fmt, **savefig)
+    finally:
+        if engine is not None:
+            fig.set_layout_engine(engine)
+
+
+def tight_box(fig, fmt: str, dpi: float | str | None = None, pad: float | None = None):
+    """The box (a Bbox in inches) that ``savefig(bbox_inches="tight", dpi=dpi, pad_inches=pad)`` cuts the figure
+    to, for "png" or "svg".
+
+    savefig finds it by drawing the whole figure with its output turned off, so that each artist stands where a
+    draw puts it, and then asking the artists for their extent; then it draws the figure again for the file.  The
+    extent alone places what it measures (``Axes.get_tightbbox`` applies fixed aspect ratios and axes locators
+    itself), so here it is asked directly of a renderer like savefig's (Agg at the file's dpi; for SVG, which
+    measures text its own way, an SVG renderer at 72 units per inch): the same box to the bit, and the same file
+    (tested), for about a third of the cost of that draw.
+    """
+    import matplotlib as mpl
+
+    if pad is None:
+        pad = mpl.rcParams["savefig.pad_inches"]
+    if dpi is None:
+        dpi = mpl.rcParams["savefig.dpi"]
+    if dpi == "figure":
+        dpi = fig.dpi
+    old = fig.dpi
+    try:
+        if fmt == "svg":
+            from matplotlib.backends.backend_svg import RendererSVG
+
+            fig.dpi = 72  # as the SVG writer sets it: one unit a point
+            w, h = fig.get_size_inches() * 72
+            renderer = RendererSVG(w, h, io.StringIO(), image_dpi=old)
+        else:
+            from matplotlib.backends.backend_agg import RendererAgg
+
+            fig.dpi = dpi
+            renderer = RendererAgg(*fig.bbox.size, dpi)
+        return fig.get_tightbbox(renderer).padded(pad)
+    finally:
+        fig.dpi = old
+
+
+def warm_up(fmt: str = "png", modules: Sequence[str] = ()) -> None:
+    """Import matplotlib, its writer for ``fmt`` and ``modules``, and draw a small figure once, so the fonts are
+    loaded and the first-use work done before the real figures (and before workers fork: each inherits it)."""
+    import importlib
+
+    for name in modules:
+        importlib.import_module(name)
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(2.0, 1.5))
+    ax = fig.add_subplot()
+    ax.plot([0, 1], [0, 1], label="0.5 dB")
+    ax.set_title("warm-up", fontsize=10)
+    ax.legend(fontsize=8)
+    fig.tight_layout()
+    figure_bytes(fig, fmt, dpi=72, bbox_inches="tight")
 
 
 def _worker_start(parent: int) -> None:
@@ -72,14 +163,20 @@ def workers(count: int) -> int:
     return max(1, min(cores, count))
 
 
-def draw_all(jobs: Sequence[tuple[Callable, str, dict]], *, done: Callable[[], None] | None = None) -> list[bytes]:
+def draw_all(
+    jobs: Sequence[tuple[Callable, str, dict]],
+    *,
+    done: Callable[[], None] | None = None,
+    cost: Sequence[float] | None = None,
+) -> list[bytes]:
     """The bytes of each job, in order: a job is (a function that makes the figure, "png" or "svg", savefig's
-    keywords).  ``done()`` is called as each figure is finished."""
+    keywords).  ``done()`` is called as each figure is finished.  ``cost``: each job's rough relative drawing time;
+    workers are handed the costliest first."""
     global _JOBS
     from snrgain.errors import stop_if_asked
 
     n = workers(len(jobs))
-    out = []
+    out: list[bytes] = []
     if n <= 1:
         for make, fmt, savefig in jobs:
             out.append(figure_bytes(make(), fmt, **savefig))
@@ -87,8 +184,9 @@ def draw_all(jobs: Sequence[tuple[Callable, str, dict]], *, done: Callable[[], N
                 done()
             stop_if_asked()
         return out
-    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures import ProcessPoolExecutor, as_completed
 
+    order = sorted(range(len(jobs)), key=lambda k: -cost[k]) if cost is not None else range(len(jobs))
     _JOBS = jobs
     pool = ProcessPoolExecutor(
         max_workers=n,
@@ -97,13 +195,117 @@ def draw_all(jobs: Sequence[tuple[Callable, str, dict]], *, done: Callable[[], N
         initargs=(os.getpid(),),
     )
     try:
-        futures = [pool.submit(_run, i) for i in range(len(jobs))]
-        for f in futures:
-            out.append(f.result())
+        futures = {pool.submit(_run, k): k for k in order}
+        drawn: dict[int, bytes] = {}
+        for f in as_completed(futures):
+            drawn[futures[f]] = f.result()
             if done:
                 done()
             stop_if_asked()  # Ctrl-C: the figures not started are dropped (below), the command stops cleanly
-        return out
+        return [drawn[k] for k in range(len(jobs))]
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
         _JOBS = ()
+
+
+class Drawer:
+    """Draws figures (:func:`draw_all`) in a helper process started now, before the results exist.
+
+    Use it around the evaluation::
+
+        with Drawer("svg", modules=["snrgain.outputs.report"]) as drawer:
+            results = evaluate(...)
+            drawn = drawer.draw(jobs, done=step)
+
+    The helper imports matplotlib and ``modules`` and loads the fonts (:func:`warm_up`) while this process works;
+    :meth:`draw` sends it the jobs, pickled once (the results they share are written once), and it draws them with
+    its own forked workers, reporting each figure done.  Leaving the ``with`` block ends the helper, also when the
+    evaluation failed or was stopped.  Where the figures would be drawn in this process anyway (one core, no
+    fork, ``SNRGAIN_WORKERS=1``) no helper is started, and where the jobs cannot be pickled they are drawn here.
+    """
+
+    def __init__(self, fmt: str = "png", *, modules: Sequence[str] = ()):
+        self._proc = None
+        self._conn = None
+        if workers(2) < 2:
+            return
+        ctx = multiprocessing.get_context("fork")
+        self._conn, child = ctx.Pipe()
+        # Not a daemon: its own workers are its children, which multiprocessing refuses a daemon.
+        self._proc = ctx.Process(
+            target=_helper, args=(child, os.getpid(), fmt, tuple(modules)), name="snrgain-figures", daemon=False
+        )
+        self._proc.start()
+        child.close()
+
+    def __enter__(self) -> Drawer:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    def close(self) -> None:
+        """End the helper (at once: it holds nothing that needs finishing)."""
+        proc, self._proc = self._proc, None
+        if proc is None:
+            return
+        self._conn.close()
+        if proc.is_alive():
+            proc.terminate()
+        proc.join()
+
+    def draw(
+        self,
+        jobs: Sequence[tuple[Callable, str, dict]],
+        *,
+        done: Callable[[], None] | None = None,
+        cost: Sequence[float] | None = None,
+    ) -> list[bytes]:
+        """:func:`draw_all` of the jobs, in the helper if there is one."""
+        from snrgain.errors import stop_if_asked
+
+        if self._proc is None:
+            return draw_all(jobs, done=done, cost=cost)
+        try:
+            payload = pickle.dumps((list(jobs), cost), protocol=pickle.HIGHEST_PROTOCOL)
+        except (pickle.PicklingError, TypeError, AttributeError):  # e.g. a figure function made in a notebook
+            self.close()
+            return draw_all(jobs, done=done, cost=cost)
+        try:
+            self._conn.send_bytes(payload)
+            while True:
+                kind, value = self._conn.recv()
+                if kind == "done":
+                    if done:
+                        done()
+                    stop_if_asked()
+                elif kind == "drawn":
+                    return value
+                else:
+                    raise value
+        except (EOFError, BrokenPipeError, ConnectionResetError):  # the helper died (killed, out of memory)
+            self.close()
+            return draw_all(jobs, done=done, cost=cost)
+
+
+def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
+    """The helper process of :class:`Drawer`: warm up, wait for the jobs, draw them, send the bytes back."""
+    _worker_start(parent)
+    try:
+        warm_up(fmt, modules)
+    except Exception:  # any real problem comes back when the figures are drawn
+        pass
+    try:
+        payload = conn.recv_bytes()
+    except (EOFError, OSError):  # the command ended without drawing
+        return
+    try:
+        jobs, cost = pickle.loads(payload)
+        out = draw_all(jobs, done=lambda: conn.send(("done", None)), cost=cost)
+    except BaseException as exc:  # the command raises it as its own
+        try:
+            conn.send(("failed", exc))
+        except Exception:
+            conn.send(("failed", RuntimeError(f"drawing the figures: {type(exc).__name__}: {exc}")))
+        return
+    conn.send(("drawn", out))

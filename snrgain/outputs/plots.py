@@ -29,7 +29,6 @@ from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
-from matplotlib.figure import Figure
 
 from snrgain.model.labelled import QUANTILES
 from snrgain.outputs.style import SOURCE_MARKER, antenna_looks, looks_of, target_looks, unwrapped
@@ -62,6 +61,8 @@ def _axes(
     """The figure and axes to draw on: those given (one Axes, or a sequence of n), or new ones on a new Figure
     (n panels in a column, or in a row with ``columns``)."""
     if ax is None:
+        from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
+
         fig = Figure(figsize=figsize)
         if polar:
             return fig, [fig.add_subplot(projection="polar")]
@@ -709,9 +710,15 @@ FIGURES = {
 }
 """Figure functions by short name (for the command line)."""
 
+FIGURE_COST = {"sky": 3.0, "hours": 2.0, "ranking": 2.0, "azimuth": 1.3, "plan": 1.0, "elevation": 1.0}
+"""Rough relative drawing time of each figure by short name (measured on benchmarks/realistic-site.toml): the
+command line hands the heaviest to its workers first (:func:`snrgain.outputs.drawing.draw_all`)."""
 
-SAVE_OPTIONS = {"dpi": 110, "bbox_inches": "tight"}
-"""savefig's keywords for the figure files (PNG resolution; the bounding box that holds outside legends)."""
+
+SAVE_OPTIONS = {"dpi": 110, "bbox_inches": "tight", "pil_kwargs": {"compress_level": 3}}
+"""savefig's keywords for the figure files (PNG resolution; the bounding box that holds outside legends; zlib level
+3 instead of 6: the same pixels, files 1 % larger, written in two thirds of the time).  SVG ignores the PNG
+keywords."""
 
 
 def save(fig, path, *, overwrite: bool = False, dpi: int = SAVE_OPTIONS["dpi"]) -> Path:
@@ -722,5 +729,7 @@ def save(fig, path, *, overwrite: bool = False, dpi: int = SAVE_OPTIONS["dpi"]) 
     fmt = p.suffix.lower().lstrip(".")
     if fmt not in ("png", "svg"):
         raise ValueError(f"{p}: figures are written as .png or .svg")
+    from snrgain.outputs.drawing import save_figure
+
     opts = {**SAVE_OPTIONS, "dpi": dpi}
-    return write_atomic(p, lambda tmp: fig.savefig(tmp, format=fmt, **opts), overwrite=overwrite)
+    return write_atomic(p, lambda tmp: save_figure(fig, tmp, fmt, **opts), overwrite=overwrite)

@@ -362,9 +362,10 @@ def figure_makers(r, *, plan: dict | None = None) -> list[tuple[str, object, str
     return figs
 
 
-def render(results, *, title: str | None = None, plan: dict | None = None) -> str:
+def render(results, *, title: str | None = None, plan: dict | None = None, draw=None) -> str:
     """The report as one HTML document (a string); ``plan``: the scenario's site plan
-    (:func:`snrgain.outputs.siteplan.plan_of`; the command line passes it)."""
+    (:func:`snrgain.outputs.siteplan.plan_of`; the command line passes it); ``draw``: what draws the figures
+    (:func:`snrgain.outputs.drawing.draw_all`, or the command line's :meth:`~snrgain.outputs.drawing.Drawer.draw`)."""
     r = results
     title = title or f"snrgain report: {r.site['name']}"
     parts = [
@@ -386,7 +387,9 @@ def render(results, *, title: str | None = None, plan: dict | None = None) -> st
     from snrgain.outputs.drawing import draw_all
 
     makers = figure_makers(r, plan=plan)
-    drawn = draw_all([(make, "svg", {"bbox_inches": "tight"}) for _, make, _ in makers])
+    cost_of = {fn: plots.FIGURE_COST[name] for name, fn in plots.FIGURES.items()}
+    cost = [cost_of.get(getattr(make, "func", None), 1.0) for _, make, _ in makers]
+    drawn = (draw or draw_all)([(make, "svg", {"bbox_inches": "tight"}) for _, make, _ in makers], cost=cost)
     for i, ((name, _, caption), svg) in enumerate(zip(makers, drawn)):
         parts.append(
             f"<figure id='figure-{i + 1}'>{_inline(svg)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"
