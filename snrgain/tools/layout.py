@@ -163,6 +163,7 @@ class Problem:
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
+        self._exact: dict[tuple, float] = {}
 
     # -- one candidate ----------------------------------------------------------------------------------------
 
@@ -229,7 +230,7 @@ class Problem:
             return self.ranked_gains_db(ants, i)[:, self.target[i][0]]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
-        gains = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i][0]]
+        gains = _statistic(sub, pipeline.snr_gains(sub, p), self.target[i][0])[1:]
         return gains - self.tx_costs_db(ants)
 
     def ranked_gains_db(self, ants, i: int) -> np.ndarray:
@@ -294,8 +295,13 @@ class Problem:
         return total
 
     def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
-        """:meth:`snr_gains_db` of one design."""
-        return float(self.snr_gains_db([d], i, exact=exact)[0])
+        """:meth:`snr_gains_db` of one design (``exact``: kept, for the layouts shown that share it)."""
+        if not exact:
+            return float(self.snr_gains_db([d], i)[0])
+        key = (i, d)
+        if key not in self._exact:
+            self._exact[key] = float(self.snr_gains_db([d], i, exact=True)[0])
+        return self._exact[key]
 
     # -- geometry -----------------------------------------------------------------------------------------------
 
@@ -596,6 +602,16 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
     plan = plan_of(problem.sc, data=problem.data, designs=tuple(designs), gains=gains)
     plan["layout"] = as_dict([layout])["layouts"][0]
     return plan
+
+
+def _statistic(sc, g: np.ndarray, t: int) -> np.ndarray:
+    """The ranking's statistic (snrgain.model.products.target_statistic) toward target ``t`` of every antenna at
+    once, from SNR gains (antennas, targets, months, hours): the median (or the mean) of each row over the target's
+    months and hours (snrgain.model.spread.over_hours)."""
+    from snrgain.model.products import target_masks
+
+    v = g[:, t][:, target_masks(sc)[t]]  # (antennas, the target's month-hours)
+    return np.median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
 
 
 def _member(antenna) -> str:
