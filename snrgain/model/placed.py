@@ -44,6 +44,8 @@ Antennas without a position stand at the reference's.
 
 from __future__ import annotations
 
+from contextlib import contextmanager
+
 import numpy as np
 
 from noisemodels import nearground
@@ -269,23 +271,25 @@ _EMFS = Memo(256)
 
 
 def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndarray, np.ndarray | None]:
-    """:func:`_emfs` in a placed source's field: many places at once from its tables (:func:`tabled_field_vector`,
-    when there are at least :data:`TABLE_MIN_POINTS` points), one place kept by its geometry for the next wire
-    standing there (the loads do not enter)."""
+    """:func:`_emfs` in a placed source's field: read from its tables (:func:`tabled_field_vector`) from
+    :func:`table_min_points` points on (many places at once, or every place inside :func:`tabled`), one place kept
+    by its geometry for the next wire standing there (the loads do not enter)."""
+    least = table_min_points()
+    many = len(feeds) * len(x) >= least
 
     def field(pts, heights):
         return tabled_field_vector(src, pts, heights, freq_hz, ground, kind=kind)
 
+    def along(pts, h):
+        return tabled_field_along(src, pts, h, u, freq_hz, ground, kind=kind)
+
     if len(feeds) > 1:
-        many = len(feeds) * len(x) >= TABLE_MIN_POINTS
-
-        def along(pts, h):
-            return tabled_field_along(src, pts, h, u, freq_hz, ground, kind=kind)
-
         return _emfs(wire, feeds, x, u, field, along if many else None)
     h = wire.wire_height_m()
     key = (
         field_vector,  # the function itself (a test may put another in its place)
+        many,
+        least,
         _source_key(src, kind),
         _ground_key(ground),
         float(freq_hz),
@@ -298,7 +302,7 @@ def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndar
         bool(wire.has_leads),
         np.asarray(x, dtype=float).tobytes(),
     )
-    return _EMFS.get(key, lambda: _emfs(wire, feeds, x, u, field))
+    return _EMFS.get(key, lambda: _emfs(wire, feeds, x, u, field, along if many else None))
 
 
 def _source_key(src, kind: str) -> tuple:
@@ -321,7 +325,26 @@ def _ground_key(ground) -> tuple | None:
 
 TABLE_MIN_POINTS = 4000
 """Points asked at once from which a placed source's field is read from its tables (:func:`tabled_field_vector`)
-instead of worked point by point: fewer do not pay for the table's panels."""
+instead of worked point by point: fewer do not pay for the table's panels (unless inside :func:`tabled`)."""
+_LEAST = [TABLE_MIN_POINTS]
+
+
+def table_min_points() -> int:
+    """The points asked at once from which a placed source's field is read from its tables (:func:`tabled`)."""
+    return _LEAST[-1]
+
+
+@contextmanager
+def tabled(min_points: int = 0):
+    """Within: a placed source's field read from its tables from ``min_points`` points on (a search that asks
+    again and again near the same places: layout's refinement), not only for large batches."""
+    _LEAST.append(int(min_points))
+    try:
+        yield
+    finally:
+        _LEAST.pop()
+
+
 TABLE_PANEL = 0.125
 """Width of a table panel in ln(distance [m]) (13 % apart)."""
 TABLE_DEGREE = 9
@@ -493,11 +516,11 @@ def _table(src, freq_hz: float, ground, kind: str, z_m: float) -> _FieldTable:
 def tabled_field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str, tables=None) -> np.ndarray:
     """:func:`field_vector` (N, 3), read from the source's tables against distance (:class:`_FieldTable`, one per
     height asked; within :data:`TABLE_TOLERANCE` of each panel's largest value) when ``tables`` (default: at least
-    :data:`TABLE_MIN_POINTS` points), worked directly for the rest: a long wire at many places asks at a few
+    :func:`table_min_points` points), worked directly for the rest: a long wire at many places asks at a few
     heights only (its own and its leads' quadrature points)."""
     p = np.atleast_2d(np.asarray(points_m, dtype=float))
     z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
-    if not (len(p) >= TABLE_MIN_POINTS if tables is None else tables):
+    if not (len(p) >= table_min_points() if tables is None else tables):
         return field_vector(src, p, z, freq_hz, ground, kind=kind)
     out = np.zeros((len(p), 3), dtype=complex)
     left = np.ones(len(p), dtype=bool)
