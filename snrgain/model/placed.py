@@ -277,8 +277,8 @@ def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndar
     least = table_min_points()
     many = len(feeds) * len(x) >= least
 
-    def field(pts, heights):
-        return tabled_field_vector(src, pts, heights, freq_hz, ground, kind=kind)
+    def field(pts, heights):  # up the leads: a few points at each of LEAD_POINTS heights, worked directly unless many
+        return tabled_field_vector(src, pts, heights, freq_hz, ground, kind=kind, tables=len(pts) >= LEAD_TABLE_MIN)
 
     def along(pts, h):
         return tabled_field_along(src, pts, h, u, freq_hz, ground, kind=kind)
@@ -326,6 +326,8 @@ def _ground_key(ground) -> tuple | None:
 TABLE_MIN_POINTS = 4000
 """Points asked at once from which a placed source's field is read from its tables (:func:`tabled_field_vector`)
 instead of worked point by point: fewer do not pay for the table's panels (unless inside :func:`tabled`)."""
+LEAD_TABLE_MIN = 40 * 2 * LEAD_POINTS
+"""Points up the leads (of 40 places) from which those too are read from the tables (one per quadrature height)."""
 _LEAST = [TABLE_MIN_POINTS]
 
 

@@ -24,7 +24,7 @@ The search (deterministic, so reproducible):
    lengths over the range, feed points on a square grid over the lot (about
    150 inside it); the feasible designs kept, the best few per candidate;
 2. the best combination of those that do not cross one another;
-3. a joint local refinement from it (scipy.optimize.minimize, Nelder-Mead, on
+3. a joint local refinement from it (Nelder-Mead: :func:`nelder_mead`, on
    the continuous values with a penalty for any violation), kept only if it
    is feasible and better.
 
@@ -164,7 +164,7 @@ class Problem:
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
-        self._exact: dict[tuple, float] = {}
+        self._scored: dict[tuple, float] = {}
 
     # -- one candidate ----------------------------------------------------------------------------------------
 
@@ -301,13 +301,11 @@ class Problem:
         return total
 
     def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
-        """:meth:`snr_gains_db` of one design (``exact``: kept, for the layouts shown that share it)."""
-        if not exact:
-            return float(self.snr_gains_db([d], i)[0])
-        key = (i, d)
-        if key not in self._exact:
-            self._exact[key] = float(self.snr_gains_db([d], i, exact=True)[0])
-        return self._exact[key]
+        """:meth:`snr_gains_db` of one design, kept (the layouts shown share designs; so do the refinement's steps)."""
+        key = (i, d, exact)  # the refinement's first simplex moves one candidate at a time: the others' are kept
+        if key not in self._scored:
+            self._scored[key] = float(self.snr_gains_db([d], i, exact=exact)[0])
+        return self._scored[key]
 
     # -- geometry -----------------------------------------------------------------------------------------------
 
