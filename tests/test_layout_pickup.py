@@ -85,3 +85,25 @@ def test_a_wire_kept_at_its_place_hears_as_a_fresh_one_with_other_loads():
     placed._EMFS.clear()
     assert placed.wire_feed_current(b, src, F_HZ, feed, b.ground) == ib
     assert abs(ia - ib) > 1e-6 * abs(ib)
+
+
+@pytest.mark.parametrize(
+    "family, spec",
+    [
+        ("vertical", {"height": 6.0}),
+        ("terminated-loop", {"width": 8.5, "loop_height": 4.3, "height": 1.5, "bearing": np.radians(70.0)}),
+    ],
+)
+def test_a_compact_antenna_at_many_places_equals_each_place_alone(family, spec):
+    # layout's grid places one compact design at many places; pickup hears them at once through their transmit
+    # currents (placed._compact_powers): each the power received_power gives it alone.
+    src = LocalSource(
+        "charger", 0.0, position_m=(100.0, 20.0), height_m=1.0, polarisation="both", orientation_rad=np.radians(40.0)
+    )
+    base = from_si(family, ground="moist clay", **spec)
+    ants = [base.at(tuple(f)) for f in _feeds(9)]
+    p = np.full(len(ants), np.nan)
+    placed._compact_powers(ants, src, 3.55e6, (0.0, 0.0), base.ground, p)
+    alone = [placed.received_power(a, src, 3.55e6, (0.0, 0.0), base.ground) for a in ants]
+    assert np.all(np.isfinite(p))
+    np.testing.assert_allclose(p, alone, rtol=1e-9, atol=0)

@@ -703,6 +703,7 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         have = powers.get(src.name) if powers is not None else None
         p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
         _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
@@ -739,8 +740,86 @@ def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarr
         p[ks] = total
 
 
+def _compact_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+    """Fill ``p`` (NaN where not known) for the same compact antenna standing at several places at once, read
+    through its transmit currents (:func:`_through_currents`): its segments and currents are the same at every
+    place, only the source's field at the shifted segments and its direction change, so the field at every
+    segment of every place is one call and each reciprocity sum one einsum; :func:`received_power`'s powers."""
+    groups: dict[str, list[int]] = {}
+    for k, a in enumerate(antennas):
+        if not np.isfinite(p[k]) and not a.integrates_near_sources and not a.composite and has_place(a):
+            key = a.gain_key()
+            if key is not None and getattr(a, "transmit_segments", None) is not None:
+                groups.setdefault(key, []).append(k)
+    for ks in (ks for ks in groups.values() if len(ks) > 1):
+        ant = antennas[ks[0]]
+        segments = transmit_segments(ant, freq_hz)
+        last = transmit_segments(antennas[ks[-1]], freq_hz)
+        if segments is None or not all(np.array_equal(a, b) for a, b in zip(segments, last)):
+            continue  # not the same segments from each place: one by one
+        at = np.array([antenna_point(antennas[k], reference_m) for k in ks])
+        total = np.zeros(len(ks))
+        for kind, _ in dipoles(src):
+            total += np.abs(_through_currents_many(ant, src, freq_hz, at, ground, kind, segments)) ** 2
+        p[ks] = total
+
+
+def _through_currents_many(antenna, src, freq_hz: float, at, ground, kind: str, segments) -> np.ndarray:
+    """:func:`_through_currents` of one antenna at each of the places ``at`` (K, 2): (K,) complex."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    pts, dirs, cur = segments
+    pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
+    n, m = len(at), len(pts)
+    where = (at[:, None, :] + pts[None, :, :2]).reshape(-1, 2)
+    e = field_vector(src, where, np.tile(pts[:, 2], n), freq_hz, ground, kind=kind).reshape(n, m, 3)
+    v_src = np.einsum("kni,ni,n->k", e, dirs, cur)
+    az = bearing_to(src, at)
+    el = float(src.elevation_rad)
+    rv, rh = antenna.complex_response(freq_hz, az, np.full(n, el))
+    # a unit plane wave from each place's direction toward the source (plane_wave_field, every azimuth at once)
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    ca, sa = np.cos(az), np.sin(az)
+    ce, se = np.cos(el), np.sin(el)
+    toward = np.stack([ce * sa, ce * ca, np.full(n, se)], axis=1)  # (K, 3)
+    mirror = toward * np.array([1.0, 1.0, -1.0])
+    r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([el]), freq_hz))
+    direct = np.exp(1j * k * pts @ toward.T)  # (N, K)
+    reflected = np.exp(1j * k * pts @ mirror.T)
+    dc = dirs * cur[:, None]  # (N, 3)
+    pol_v = (direct * (dc[:, :1] * (-se * sa) + dc[:, 1:2] * (-se * ca) + dc[:, 2:] * ce)).sum(axis=0) + r_v * (
+        reflected * (dc[:, :1] * (se * sa) + dc[:, 1:2] * (se * ca) + dc[:, 2:] * ce)
+    ).sum(axis=0)
+    pol_h = ((direct + r_h * reflected) * (dc[:, :1] * ca - dc[:, 1:2] * sa)).sum(axis=0)
+    out = np.zeros(n, dtype=complex)
+    for j in range(n):
+        best = None
+        for r, v_pw in ((complex(rv[j]), pol_v[j]), (complex(rh[j]), pol_h[j])):
+            if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
+                best = (r, v_pw)
+        if best is not None and best[0] != 0:
+            out[j] = v_src[j] * best[0] / best[1]
+    return out
+
+
 def _field_power(src, point_m, freq_hz: float, ground) -> float:
-    """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added."""
+    """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added (kept: a source measured
+    elsewhere asks for the same two points at every pickup)."""
+    key = (
+        nearground.field,  # the function itself (a test may put another in its place)
+        _source_key(src, src.polarisation),
+        float(src.elevation_rad),
+        _ground_key(ground),
+        float(freq_hz),
+        tuple(float(c) for c in point_m),
+    )
+    return _FIELD_POWERS.get(key, lambda: _field_power_worked(src, point_m, freq_hz, ground))
+
+
+_FIELD_POWERS = Memo(64)
+
+
+def _field_power_worked(src, point_m, freq_hz: float, ground) -> float:
     total = 0.0
     for kind, _ in dipoles(src):
         ev, eh = source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)
