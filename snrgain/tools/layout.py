@@ -362,20 +362,24 @@ class Problem:
             shapes = np.array([self.footprint(d) for d in designs], dtype=object)
         line = shapely.length(shapes) > 0
         columns = []
-        lot = np.where(
-            line,
-            shapely.length(shapely.difference(shapes, self.lot)),
-            np.where(shapely.covers(self.lot, shapes), 0.0, 1.0 + shapely.distance(self.lot.exterior, shapes)),
-        )
+        # the overlays worked only where they can be other than empty (a footprint the lot covers has nothing
+        # outside it; one that misses a keep-out area has nothing inside it): the same values, most designs skipped
+        for g in (self.lot, *self.keep):
+            shapely.prepare(g)
+        covered = shapely.covers(self.lot, shapes)
+        lot = np.zeros(len(shapes))
+        out = ~covered
+        if out.any():
+            lot[out & line] = shapely.length(shapely.difference(shapes[out & line], self.lot))
+            lot[out & ~line] = 1.0 + shapely.distance(self.lot.exterior, shapes[out & ~line])
         columns.append(("the lot's outline", lot))
         for (name, _), k in zip(self.sc.site.keep_out, self.keep):
-            inter = shapely.intersection(shapes, k)
-            columns.append(
-                (
-                    f"keep-out area {name!r}",
-                    np.where(line, shapely.length(inter), np.where(shapely.is_empty(inter), 0.0, 1.0)),
-                )
-            )
+            hit = shapely.intersects(shapes, k)
+            inside = np.zeros(len(shapes))
+            if hit.any():
+                inter = shapely.intersection(shapes[hit], k)
+                inside[hit] = np.where(line[hit], shapely.length(inter), np.where(shapely.is_empty(inter), 0.0, 1.0))
+            columns.append((f"keep-out area {name!r}", inside))
         if self.tx is not None:
             applies = np.array(
                 [self.clearance_given or not self.cost_computed[self.names.index(d.name)] for d in designs]
