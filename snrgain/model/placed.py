@@ -40,6 +40,15 @@ plane wave of unit field delivers the antenna's realized gain:
   antenna's (a test).
 
 Antennas without a position stand at the reference's.
+
+Many places at once (layout's grid, a sweep's copies of one design): a long wire's field along it is read from
+tables of the source's field against distance at each height asked (:class:`_FieldTable`: flat ground is the same
+all round the source's foot; polynomials in ln(distance) kept only where they meet the field to 1e-11, the rest
+worked directly), so the feed currents equal the place-by-place ones to about 1e-10 (a test); a compact antenna's
+transmit currents are the same at every place, so the field at every segment of every place is one call.  One
+place at a time works the field directly, point by point, as ``rank`` does (inside :func:`tabled`, layout's own
+search reads the tables there too); the EMFs along a wire at one place are kept for the next wire standing there
+(the loads do not enter them).
 """
 
 from __future__ import annotations
@@ -381,7 +390,7 @@ class _FieldTable:
     def __init__(self, src, freq_hz: float, ground, kind: str, z_m: float):
         self.src, self.freq_hz, self.ground, self.kind, self.z_m = src, float(freq_hz), ground, kind, float(z_m)
         self.k = 2 * np.pi * self.freq_hz / C_M_PER_S
-        self.axis = np.array([0.0, 1.0]) if kind == "vertical" else _axis(src)
+        self.axis = _axis(src) if kind == "horizontal" else np.array([0.0, 1.0])
         self.names = self.COMPONENTS[kind]
         self.panels: dict[int, np.ndarray | None] = {}
         m = TABLE_DEGREE + 1
@@ -400,7 +409,7 @@ class _FieldTable:
             self.src, src + rho[:, None] * p[None, :], self.z_m, self.freq_hz, self.ground, kind=self.kind
         )
         out = [along[:, 0] * p[0] + along[:, 1] * p[1], along[:, 2]]
-        if self.kind != "vertical":
+        if self.kind == "horizontal":
             side = np.array([p[1], -p[0]])  # phi_hat is p there
             across = field_vector(
                 self.src, src + rho[:, None] * side[None, :], self.z_m, self.freq_hz, self.ground, kind=self.kind
@@ -470,7 +479,7 @@ class _FieldTable:
         """(E (N, 3) [east, north, up], or E . along (N,) when ``along`` (a horizontal unit vector) is given, at the
         points it holds; which points it holds (N,) bool) at plan offsets ``d`` (N, 2) from the source's foot."""
         rho = np.hypot(d[:, 0], d[:, 1])
-        vertical = self.kind == "vertical"
+        vertical = self.kind != "horizontal"
         names = ("A",) if vertical else ("A", "B")
         if along is None:
             names = names + ("C",)
