@@ -249,16 +249,37 @@ def _rdf_at(sums, cs, d, k_wave, ux, uy) -> np.ndarray:
     offset d (P, 2) toward the scatterer), from :func:`_cell_sums`: the mean over the cells is
     mean(|ev0|^2 + |eh0|^2) + |c|^2 mean(|field|^2) + 2 Re(c sum(a exp(j k d . u))), the phases worked on the
     first half of the azimuths only (the grid's azimuths come in pairs 180 deg apart, so the second half's phases
-    are the first's conjugates)."""
+    are the first's conjugates), at many places as the east phase times the north one (:func:`_phases`)."""
     base, power, a1, a2c, (ev_f, h2_f, field_f) = sums
     half = len(a1)
-    arg = k_wave * (d[:, :1] * ux[None, :half] + d[:, 1:] * uy[None, :half])
-    phi = np.cos(arg) + 1j * np.sin(arg)
+    if len(d) > 1:  # places on a lattice: rows of phases per east and per north offset, shared
+        grid = (float(k_wave), hash(ux[:half].tobytes()), hash(uy[:half].tobytes()))
+        phi = _phases(grid, 0, d[:, 0], k_wave, ux[:half]) * _phases(grid, 1, d[:, 1], k_wave, uy[:half])
+    else:
+        arg = k_wave * (d[:, :1] * ux[None, :half] + d[:, 1:] * uy[None, :half])
+        phi = np.cos(arg) + 1j * np.sin(arg)
     s = np.einsum("pj,j->p", phi, a1) + np.conj(np.einsum("pj,j->p", phi[:, : len(a2c)], a2c))
     mean = base + np.abs(cs) ** 2 * power + 2 * np.real(cs * s)
     fwd = np.exp(1j * k_wave * (d[:, 0] * ux[-2] + d[:, 1] * uy[-2]))
     g_f = np.abs(ev_f + cs * field_f * fwd) ** 2 + h2_f
     return 10 * np.log10(np.maximum(g_f, 1e-30)) - 10 * np.log10(np.maximum(mean, 1e-30))
+
+
+_PHASES = Memo(256)
+"""exp(j k x u) over tx_cost's cells for one east or north offset x [m] (a layout's places share a lattice)."""
+
+
+def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> np.ndarray:
+    """exp(j k x_p u) (P, cells) for offsets ``x`` (P,) along one axis (the phase exp(j k d . u) is the product of
+    the east and the north one's), each distinct offset's row worked once and kept (``grid``: what the cells are)."""
+    values, which = np.unique(x, return_inverse=True)
+
+    def row(v):
+        arg = k_wave * v * u
+        return np.cos(arg) + 1j * np.sin(arg)
+
+    rows = np.array([_PHASES.get((grid, axis, float(v)), lambda v=v: row(v)) for v in values])
+    return rows[which.ravel()]
 
 
 def tx_cost(
