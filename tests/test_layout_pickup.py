@@ -37,11 +37,12 @@ def test_many_places_at_once_equal_each_place_alone(polarisation, orientation_de
         polarisation=polarisation,
         orientation_rad=None if orientation_deg is None else np.radians(orientation_deg),
     )
-    feeds = _feeds(12)
+    feeds = _feeds(45)
     for kind, _ in placed.dipoles(src):
         placed._TABLES.clear()
         x = placed.wire_samples(bev.length_m, F_HZ, 5.0)  # one grid for all, so the batch is one expression
-        assert len(feeds) * len(x) >= placed.TABLE_MIN_POINTS  # the batch reads the tables
+        assert len(feeds) * len(x) >= placed.TABLE_MIN_POINTS  # the batch reads the tables, along the wire
+        assert len(feeds) * 2 * placed.LEAD_POINTS >= placed.LEAD_TABLE_MIN  # and up its leads
         batch = placed.wire_feed_currents(bev, src, F_HZ, feeds, bev.ground, x_m=x, kind=kind)
         assert len(placed._TABLES) > 0
         alone = np.array([placed.wire_feed_current(bev, src, F_HZ, f, bev.ground, x_m=x, kind=kind) for f in feeds])
