@@ -227,10 +227,11 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
     return _through_line(wire, freq_hz, x, emf, lead)
 
 
-def _emfs(wire, feeds, x, u, field, along=None) -> tuple[np.ndarray, np.ndarray | None]:
+def _emfs(wire, feeds, x, u, field, along=None, leads=None) -> tuple[np.ndarray, np.ndarray | None]:
     """(EMF per metre along the wire (N, len(x)), feed toward far end; the EMF up each down-lead (2N,): the feed
     ends, then the far ends, or None without leads) of a long wire with its feed at each of ``feeds`` (N, 2) in
-    ``field(points, heights)``; ``along(points, height)``: the field along the wire at its height, when quicker."""
+    ``field(points, heights)``; ``along(points, height)``: the field along the wire at its height, and
+    ``leads(ends, height)``: the EMF up a lead at each end, when quicker."""
     n, L = len(feeds), wire.length_m
     h = wire.wire_height_m()
     pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
@@ -244,6 +245,8 @@ def _emfs(wire, feeds, x, u, field, along=None) -> tuple[np.ndarray, np.ndarray 
         t, wq = _lead_rule()
         zs = (t + 1) * h / 2
         ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
+        if leads is not None:
+            return emf, leads(ends, h)
         ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))
         lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2
     return emf, lead
@@ -286,14 +289,18 @@ def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndar
     least = table_min_points()
     many = len(feeds) * len(x) >= least
 
-    def field(pts, heights):  # up the leads: a few points at each of LEAD_POINTS heights, worked directly unless many
-        return tabled_field_vector(src, pts, heights, freq_hz, ground, kind=kind, tables=len(pts) >= LEAD_TABLE_MIN)
+    def field(pts, heights):  # up the leads: worked directly (a few points at each of LEAD_POINTS heights)
+        return field_vector(src, pts, heights, freq_hz, ground, kind=kind)
 
     def along(pts, h):
         return tabled_field_along(src, pts, h, u, freq_hz, ground, kind=kind)
 
+    def leads(ends, h):
+        return tabled_lead_emfs(src, ends, h, freq_hz, ground, kind=kind)
+
     if len(feeds) > 1:
-        return _emfs(wire, feeds, x, u, field, along if many else None)
+        up = leads if 2 * len(feeds) * LEAD_POINTS >= LEAD_TABLE_MIN else None
+        return _emfs(wire, feeds, x, u, field, along if many else None, up)
     h = wire.wire_height_m()
     key = (
         field_vector,  # the function itself (a test may put another in its place)
@@ -335,8 +342,8 @@ def _ground_key(ground) -> tuple | None:
 TABLE_MIN_POINTS = 4000
 """Points asked at once from which a placed source's field is read from its tables (:func:`tabled_field_vector`)
 instead of worked point by point: fewer do not pay for the table's panels (unless inside :func:`tabled`)."""
-LEAD_TABLE_MIN = 40 * 2 * LEAD_POINTS
-"""Points up the leads (of 40 places) from which those too are read from the tables (one per quadrature height)."""
+LEAD_TABLE_MIN = 10 * 2 * LEAD_POINTS
+"""Points up the leads (of 10 places) from which their EMFs too are read from a table (:class:`_LeadTable`)."""
 _LEAST = [TABLE_MIN_POINTS]
 
 
@@ -504,6 +511,49 @@ class _FieldTable:
             e[:, 0] -= b * rn
             e[:, 1] += b * re
         return e, ok
+
+
+class _LeadTable(_FieldTable):
+    """The EMF up a vertical down-lead of height ``z_m`` standing at distance rho from a placed source's foot, L(rho):
+    the Gauss-Legendre sum of :func:`_emfs` over the vertical field up it (C of :class:`_FieldTable` at each of the
+    rule's heights), so E . z_hat summed up the lead is L(rho) for a vertical dipole and (p . rho_hat) L(rho) for a
+    horizontal one; kept, like the field, without its travelling phase, one polynomial per panel."""
+
+    COMPONENTS = {"vertical": ("L",), "horizontal": ("L",)}
+
+    def _values(self, rho: np.ndarray) -> np.ndarray:
+        p, h = self.axis, self.z_m
+        t, wq = _lead_rule()
+        zs = (t + 1) * h / 2
+        src = np.asarray(self.src.position_m, dtype=float)
+        pts = np.repeat(src + rho[:, None] * p[None, :], LEAD_POINTS, axis=0)
+        ez = field_vector(self.src, pts, np.tile(zs, len(rho)), self.freq_hz, self.ground, kind=self.kind)[:, 2]
+        lead = (ez.reshape(len(rho), LEAD_POINTS) @ wq) * h / 2
+        return lead[None, :] * np.exp(1j * self.k * rho)[None, :]
+
+
+def tabled_lead_emfs(src, ends_m, height_m: float, freq_hz: float, ground, *, kind: str) -> np.ndarray:
+    """The EMF up a down-lead of ``height_m`` at each of the plan points ``ends_m`` (M, 2): what :func:`_emfs` sums up
+    it from :func:`field_vector`, read from the source's lead table (:class:`_LeadTable`); worked directly where the
+    table does not hold."""
+    e = np.atleast_2d(np.asarray(ends_m, dtype=float))
+    d = e - np.asarray(src.position_m, dtype=float)[None, :]
+    key = ("lead", field_vector, _source_key(src, kind), _ground_key(ground), float(freq_hz), float(height_m))
+    table = _TABLES.get(key, lambda: _LeadTable(src, freq_hz, ground, kind, float(height_m)))
+    rho = np.hypot(d[:, 0], d[:, 1])
+    (vals,), ok = table.read(rho, ("L",))
+    out = np.empty(len(e), dtype=complex)
+    if kind == "horizontal":
+        p = table.axis
+        vals = vals * ((p[0] * d[ok, 0] + p[1] * d[ok, 1]) / rho[ok])
+    out[ok] = vals
+    if not ok.all():
+        t, wq = _lead_rule()
+        zs = (t + 1) * height_m / 2
+        m = int(np.count_nonzero(~ok))
+        ez = field_vector(src, np.repeat(e[~ok], LEAD_POINTS, axis=0), np.tile(zs, m), freq_hz, ground, kind=kind)[:, 2]
+        out[~ok] = (ez.reshape(m, LEAD_POINTS) @ wq) * height_m / 2
+    return out
 
 
 def _axis(src) -> np.ndarray:
