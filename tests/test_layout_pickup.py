@@ -108,3 +108,31 @@ def test_a_compact_antenna_at_many_places_equals_each_place_alone(family, spec):
     alone = [placed.received_power(a, src, 3.55e6, (0.0, 0.0), base.ground) for a in ants]
     assert np.all(np.isfinite(p))
     np.testing.assert_allclose(p, alone, rtol=1e-9, atol=0)
+
+
+@pytest.mark.parametrize("radius_m", [0.005, 0.3])  # 0.3 m: the table's nearest nodes clamped to 4 radii, equal
+def test_the_verticals_tables_made_as_needed_read_as_made_whole(radius_m):
+    # layout reads the TX vertical's field along many wires from its tables, made in blocks as distances need them
+    # (snrgain.physics.scatter._field_table); the values read are np.interp's on the whole table.
+    import snrgain.physics.scatter as ps
+
+    v = from_si("vertical", height=30.0, ground="moist loam")
+    tx = ps.TxVertical(v, (10.0, -5.0), complex(ps.RESONANT_LOAD_OHM), radius_m)
+    rng = np.random.default_rng(5)
+    pts = np.concatenate([[[10.0, -5.0], [10.5, -5.2], [11.2, -5.0]], rng.uniform(-290.0, 310.0, (400, 2))])
+    pts = np.concatenate([pts, np.array(tx.position_m) + rng.uniform(-2.0, 2.0, (100, 2))])
+    ps._TABLES.clear()
+    near = np.hypot(*(pts - np.array(tx.position_m)).T) < 4 * radius_m  # first the points on the axis alone
+    got = np.zeros((len(pts), 3), dtype=complex)
+    for part in (near, ~near):
+        got[part] = ps._field_along(tx, F_HZ, pts[part], np.full(int(part.sum()), 2.0))
+    e_rho, e_z = ps._field_table(tx, F_HZ, 2.0)  # every block now
+    assert np.all(np.isfinite(e_rho)) and np.all(np.isfinite(e_z))
+    d = pts - np.array(tx.position_m)
+    rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * radius_m)
+    lr, grid = np.log(rho), np.log(np.maximum(ps.TABLE_RHO_M, 4 * radius_m))
+    k = 2 * np.pi * F_HZ / ps.C_M_PER_S
+    er = (np.interp(lr, grid, e_rho.real) + 1j * np.interp(lr, grid, e_rho.imag)) * np.exp(-1j * k * rho)
+    ez = (np.interp(lr, grid, e_z.real) + 1j * np.interp(lr, grid, e_z.imag)) * np.exp(-1j * k * rho)
+    np.testing.assert_array_equal(got[:, 2], ez)
+    np.testing.assert_array_equal(got[:, 0], er * d[:, 0] / rho)

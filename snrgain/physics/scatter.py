@@ -353,19 +353,37 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
     for z in zs:
         sel = slice(None) if len(zs) == 1 else np.flatnonzero(heights == z)  # one height: no selection
         x, r = lr[sel], rho[sel]
-        j = np.searchsorted(grid, x)
-        lo, hi = max(int(j.min()) - 1, 0), min(int(j.max()) + 1, len(grid) - 1)  # the nodes the points fall between
+        j = np.searchsorted(grid, x, side="right") - 1  # grid[j] <= x < grid[j + 1] (the last of equal nodes)
+        lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)  # the nodes the points fall between
         e_rho, e_z = _field_table(tx, freq_hz, float(z), lo, hi)
         phase = np.exp(-1j * k * r)
-
-        def at(t, x=x):
-            return np.interp(x, grid, t.real) + 1j * np.interp(x, grid, t.imag)
-
+        at = _interpolator(x, grid, j)
         er, ez = at(e_rho) * phase, at(e_z) * phase
         out[sel, 0] = er * d[sel, 0] / r
         out[sel, 1] = er * d[sel, 1] / r
         out[sel, 2] = ez
     return out
+
+
+def _interpolator(x: np.ndarray, grid: np.ndarray, j: np.ndarray):
+    """np.interp(x, grid, .) of complex tables, real and imaginary parts, with the interval j of each x found once
+    (grid[j] <= x < grid[j + 1]; the same arithmetic: slope (f[j+1] - f[j]) / (grid[j+1] - grid[j]) times
+    (x - grid[j]) plus f[j], the end values beyond the ends)."""
+    below, above = j < 0, j >= len(grid) - 1
+    jc = np.clip(j, 0, len(grid) - 2)
+    dx = x - grid[jc]
+    step = grid[1:] - grid[:-1]
+
+    def part(f):
+        v = (f[jc + 1] - f[jc]) / step[jc] * dx + f[jc]
+        if below.any() or above.any():
+            v = np.where(below, f[0], np.where(above, f[-1], v))
+        return v
+
+    def at(t):
+        return part(t.real) + 1j * part(t.imag)
+
+    return at
 
 
 def wire_coupling(wire, tx: TxVertical, freq_hz: float, feed_m) -> complex:
