@@ -120,7 +120,13 @@ class Antenna(ABC):
         change where it stands); None where hidden state also counts (arrays set under a sky, phasing units)."""
         if not self.placeable:
             return None
-        return f"{type(self).__name__}:" + self.params.model_dump_json(exclude={"position", "name"})
+        held = self.__dict__.get("_gain_key")  # the parameters are frozen: kept while they are the same object
+        if held is None or held[0] is not self.params:
+            held = self.__dict__["_gain_key"] = (
+                self.params,
+                f"{type(self).__name__}:" + self.params.model_dump_json(exclude={"position", "name"}),
+            )
+        return held[1]
 
     def check_frequency(self, freq_hz: float) -> None:  # noqa: B027 - valid everywhere unless a family says not
         """Raise ValueError if the model is not valid at ``freq_hz`` [Hz]."""

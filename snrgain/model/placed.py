@@ -40,9 +40,20 @@ plane wave of unit field delivers the antenna's realized gain:
   antenna's (a test).
 
 Antennas without a position stand at the reference's.
+
+Many places at once (layout's grid, a sweep's copies of one design): a long wire's field along it is read from
+tables of the source's field against distance at each height asked (:class:`_FieldTable`: flat ground is the same
+all round the source's foot; polynomials in ln(distance) kept only where they meet the field to 1e-11, the rest
+worked directly), so the feed currents equal the place-by-place ones to about 1e-10 (a test); a compact antenna's
+transmit currents are the same at every place, so the field at every segment of every place is one call.  One
+place at a time works the field directly, point by point, as ``rank`` does (inside :func:`tabled`, layout's own
+search reads the tables there too); the EMFs along a wire at one place are kept for the next wire standing there
+(the loads do not enter them).
 """
 
 from __future__ import annotations
+
+from contextlib import contextmanager
 
 import numpy as np
 
@@ -218,18 +229,52 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
     """The feed currents of a long wire driven by a placed source's whole field (reciprocity: the line model's
     distributed series EMF is the field along the wire at its height, direct, reflected and surface wave, and each
     down-lead's EMF the integral of the vertical field up it).  ``field(points (N, 2), heights (N,))`` -> (N, 3):
-    another incident field instead of the source's (the transmitting vertical's: snrgain.physics.scatter)."""
+    another incident field instead of the source's (the transmitting vertical's: snrgain.physics.scatter).
+
+    The EMFs depend on where the wire stands, not on its loads: a placed source's are kept for the next wire of the
+    same geometry at one place (a termination searched under the sky), and many places at once read the source's
+    field from its tables against distance (:func:`tabled_field_vector`)."""
     if field is None:
         kind = kind if kind is not None else dipoles(src)[0][0]
+        emf, lead = _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind)
+    else:
+        emf, lead = _emfs(wire, feeds, x, u, field)
+    return _through_line(wire, freq_hz, x, emf, lead)
 
-        def field(pts, heights):
-            return field_vector(src, pts, heights, freq_hz, ground, kind=kind)
 
+def _emfs(wire, feeds, x, u, field, along=None, leads=None) -> tuple[np.ndarray, np.ndarray | None]:
+    """(EMF per metre along the wire (N, len(x)), feed toward far end; the EMF up each down-lead (2N,): the feed
+    ends, then the far ends, or None without leads) of a long wire with its feed at each of ``feeds`` (N, 2) in
+    ``field(points, heights)``; ``along(points, height)``: the field along the wire at its height, and
+    ``leads(ends, height)``: the EMF up a lead at each end, when quicker."""
     n, L = len(feeds), wire.length_m
     h = wire.wire_height_m()
     pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    e = field(pts, np.full(len(pts), h))
-    emf = (e[:, 0] * u[0] + e[:, 1] * u[1]).reshape(n, -1)  # per metre along the wire, feed toward far end
+    if along is not None:
+        emf = along(pts, h).reshape(n, -1)
+    else:
+        e = field(pts, np.full(len(pts), h))
+        emf = (e[:, 0] * u[0] + e[:, 1] * u[1]).reshape(n, -1)
+    lead = None
+    if wire.has_leads and h > 0:
+        t, wq = _lead_rule()
+        zs = (t + 1) * h / 2
+        ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
+        if leads is not None:
+            return emf, leads(ends, h)
+        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))
+        lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2
+    return emf, lead
+
+
+def _lead_rule() -> tuple[np.ndarray, np.ndarray]:
+    """The Gauss-Legendre rule up a down-lead (:data:`LEAD_POINTS` points on [-1, 1]), made once."""
+    return gauss_legendre(LEAD_POINTS)
+
+
+def _through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
+    """The feed currents (N,) from the EMFs of :func:`_emfs`, through the line model's transfer functions."""
+    n, L = len(emf), wire.length_m
     ln = wire.line(freq_hz)
     g, z0 = ln.gamma, ln.z0
     z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
@@ -240,16 +285,344 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
         d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
     current = np.trapezoid(emf * transfer[None, :], x, axis=1)
-    if wire.has_leads and h > 0:
-        t, wq = gauss_legendre(LEAD_POINTS)
-        zs = (t + 1) * h / 2
-        ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
-        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))
-        lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2  # the EMF up each lead
+    if lead is not None:
         current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
             current = current - lead[n:] * transfer[-1]  # down the far lead
     return current
+
+
+_EMFS = Memo(256)
+"""A placed source's EMFs along a wire standing at one place (:func:`_source_emfs`), by everything they depend on."""
+
+
+def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndarray, np.ndarray | None]:
+    """:func:`_emfs` in a placed source's field: read from its tables (:func:`tabled_field_vector`) from
+    :func:`table_min_points` points on (many places at once, or every place inside :func:`tabled`), one place kept
+    by its geometry for the next wire standing there (the loads do not enter)."""
+    least = table_min_points()
+    many = len(feeds) * len(x) >= least
+
+    def field(pts, heights):  # up the leads: worked directly (a few points at each of LEAD_POINTS heights)
+        return field_vector(src, pts, heights, freq_hz, ground, kind=kind)
+
+    def along(pts, h):
+        return tabled_field_along(src, pts, h, u, freq_hz, ground, kind=kind)
+
+    def leads(ends, h):
+        return tabled_lead_emfs(src, ends, h, freq_hz, ground, kind=kind)
+
+    if len(feeds) > 1:
+        up = leads if 2 * len(feeds) * LEAD_POINTS >= LEAD_TABLE_MIN else None
+        return _emfs(wire, feeds, x, u, field, along if many else None, up)
+    h = wire.wire_height_m()
+    key = (
+        field_vector,  # the function itself (a test may put another in its place)
+        many,
+        least,
+        _source_key(src, kind),
+        _ground_key(ground),
+        float(freq_hz),
+        float(feeds[0, 0]),
+        float(feeds[0, 1]),
+        float(u[0]),
+        float(u[1]),
+        float(wire.length_m),
+        float(h),
+        bool(wire.has_leads),
+        np.asarray(x, dtype=float).tobytes(),
+    )
+    return _EMFS.get(key, lambda: _emfs(wire, feeds, x, u, field, along if many else None))
+
+
+def _source_key(src, kind: str) -> tuple:
+    """What a placed source's field depends on (its level aside): place, height, polarisation, axis; and the dipole."""
+    axis = getattr(src, "orientation_rad", None)
+    return (
+        tuple(float(c) for c in src.position_m),
+        float(src.height_m),
+        src.polarisation,
+        None if axis is None else float(axis),
+        kind,
+    )
+
+
+def _ground_key(ground) -> tuple | None:
+    return None if ground is None else (float(ground.permittivity), float(ground.conductivity_s_per_m))
+
+
+# -- a placed source's field read from tables against distance -------------------------------------------------
+
+TABLE_MIN_POINTS = 4000
+"""Points asked at once from which a placed source's field is read from its tables (:func:`tabled_field_vector`)
+instead of worked point by point: fewer do not pay for the table's panels (unless inside :func:`tabled`)."""
+LEAD_TABLE_MIN = 10 * 2 * LEAD_POINTS
+"""Points up the leads (of 10 places) from which their EMFs too are read from a table (:class:`_LeadTable`)."""
+_LEAST = [TABLE_MIN_POINTS]
+
+
+def table_min_points() -> int:
+    """The points asked at once from which a placed source's field is read from its tables (:func:`tabled`)."""
+    return _LEAST[-1]
+
+
+@contextmanager
+def tabled(min_points: int = 0):
+    """Within: a placed source's field read from its tables from ``min_points`` points on (a search that asks
+    again and again near the same places: layout's refinement), not only for large batches."""
+    _LEAST.append(int(min_points))
+    try:
+        yield
+    finally:
+        _LEAST.pop()
+
+
+TABLE_PANEL = 0.125
+"""Width of a table panel in ln(distance [m]) (13 % apart)."""
+TABLE_DEGREE = 9
+"""Degree of the polynomial on each panel (interpolating at TABLE_DEGREE + 1 Chebyshev points)."""
+TABLE_TOLERANCE = 1e-11
+"""A panel is kept only where its polynomial meets the field at its check points to this fraction of the panel's
+largest value; a point on a panel that does not (or closer than TABLE_MIN_RHO_M) is worked directly."""
+TABLE_MIN_RHO_M = 0.01
+_TABLES = Memo(64)
+"""A placed source's tables (:class:`_FieldTable`) by source, dipole, ground, frequency and height."""
+
+
+class _FieldTable:
+    """One of a placed source's dipoles, its field at one height above the soil against the horizontal distance
+    rho from its foot, in panels of ln(rho) made as points ask for them.
+
+    Flat ground is the same all round the source's foot, and the field is linear in the dipole's moment, so with
+    rho_hat pointing away from the foot, phi_hat across (rho_hat turned 90 deg to the left) and z_hat up:
+
+    - a vertical dipole: E = A(rho) rho_hat + C(rho) z_hat;
+    - a horizontal dipole of axis p: E = (p . rho_hat) [A(rho) rho_hat + C(rho) z_hat] + (p . phi_hat) B(rho)
+      phi_hat (the vertical plane through the axis and the point is a plane of symmetry of the moment along
+      rho_hat, and of antisymmetry of the one along phi_hat);
+
+    A and C are read along the dipole's axis, B across it (:func:`field_vector` at the panels' points).  Each is
+    kept without its travelling phase (times exp(+j k rho)), a smooth function of ln(rho), as a polynomial of
+    degree TABLE_DEGREE on each panel (interpolating at Chebyshev points), checked against the field between
+    them."""
+
+    COMPONENTS = {"vertical": ("A", "C"), "horizontal": ("A", "C", "B")}
+
+    def __init__(self, src, freq_hz: float, ground, kind: str, z_m: float):
+        self.src, self.freq_hz, self.ground, self.kind, self.z_m = src, float(freq_hz), ground, kind, float(z_m)
+        self.k = 2 * np.pi * self.freq_hz / C_M_PER_S
+        self.axis = _axis(src) if kind == "horizontal" else np.array([0.0, 1.0])
+        self.names = self.COMPONENTS[kind]
+        self.panels: dict[int, np.ndarray | None] = {}
+        m = TABLE_DEGREE + 1
+        self.nodes = np.cos(np.pi * (np.arange(m) + 0.5) / m)  # Chebyshev points on [-1, 1]
+        self.checks = np.cos(np.pi * np.arange(m + 1) / m)  # between them, and the ends
+        self.solve = np.linalg.inv(np.vander(self.nodes, m, increasing=True))  # node values -> monomial coefficients
+        self.lo = 0
+        self.dense = np.zeros((len(self.names), 2, m, 0))  # (component, real/imag, power, panel - lo)
+        self.held = np.zeros(0, dtype=bool)
+
+    def _values(self, rho: np.ndarray) -> np.ndarray:
+        """(components, len(rho)) without their travelling phase."""
+        p = self.axis
+        src = np.asarray(self.src.position_m, dtype=float)
+        along = field_vector(
+            self.src, src + rho[:, None] * p[None, :], self.z_m, self.freq_hz, self.ground, kind=self.kind
+        )
+        out = [along[:, 0] * p[0] + along[:, 1] * p[1], along[:, 2]]
+        if self.kind == "horizontal":
+            side = np.array([p[1], -p[0]])  # phi_hat is p there
+            across = field_vector(
+                self.src, src + rho[:, None] * side[None, :], self.z_m, self.freq_hz, self.ground, kind=self.kind
+            )
+            out.append(across[:, 0] * p[0] + across[:, 1] * p[1])
+        return np.array(out) * np.exp(1j * self.k * rho)[None, :]
+
+    def _make(self, which: np.ndarray) -> None:
+        """Fit the panels ``which`` (integers j: ln(rho) in [j, j + 1) TABLE_PANEL) from the field at their nodes,
+        in one call, and keep those meeting :data:`TABLE_TOLERANCE` at their check points."""
+        s = np.concatenate([self.nodes, self.checks])
+        t = (which[:, None] + (s[None, :] + 1) / 2) * TABLE_PANEL
+        v = self._values(np.exp(t).ravel()).reshape(-1, len(which), len(s))  # (components, panels, points)
+        m = len(self.nodes)
+        coef = np.einsum("kn,cpn->pck", self.solve, v[:, :, :m])  # (panels, components, power)
+        got = _horner(coef[:, :, None, :], self.checks[None, None, :])
+        scale = np.max(np.abs(v), axis=2).T
+        err = np.max(np.abs(got - v[:, :, m:].transpose(1, 0, 2)), axis=2)
+        good = np.all(err <= TABLE_TOLERANCE * np.maximum(scale, 1e-300), axis=1)
+        for j, ok, c in zip(which, good, coef):
+            self.panels[int(j)] = np.stack([c.real, c.imag], axis=1) if ok else None
+        lo, hi = min(self.panels), max(self.panels)
+        self.lo = lo
+        self.dense = np.zeros((*self.dense.shape[:3], hi - lo + 1))
+        self.held = np.zeros(hi - lo + 1, dtype=bool)
+        for j, c in self.panels.items():
+            if c is not None:
+                self.dense[..., j - lo], self.held[j - lo] = c, True
+
+    def read(self, rho: np.ndarray, names) -> tuple[list[np.ndarray], np.ndarray]:
+        """([each component of ``names`` at the points it holds, with its travelling phase], which points it
+        holds (bool, len(rho)): not those closer than TABLE_MIN_RHO_M or on a panel that missed the tolerance)."""
+        ok = rho >= TABLE_MIN_RHO_M
+        t = np.log(np.where(ok, rho, 1.0))
+        t *= 1.0 / TABLE_PANEL
+        j = np.floor(t).astype(np.int64)
+        if ok.any():
+            lo, hi = int(j[ok].min()), int(j[ok].max())
+            seen = np.bincount(j[ok] - lo, minlength=hi - lo + 1) > 0
+            new = np.array([w for w in np.flatnonzero(seen) + lo if int(w) not in self.panels], dtype=np.int64)
+            if len(new):
+                self._make(new)
+        inside = ok & (j >= self.lo) & (j < self.lo + len(self.held))
+        ok = inside.copy()
+        ok[inside] = self.held[j[inside] - self.lo]
+        if not ok.all():
+            t, j, rho = t[ok], j[ok], rho[ok]
+        idx = j - self.lo
+        s = t - j
+        s *= 2.0
+        s -= 1.0
+        kr = self.k * rho
+        c, sn = np.cos(kr), np.sin(kr)
+        out = []
+        for name in names:
+            real, imag = self.dense[self.names.index(name)]  # (power, panel - lo) each
+            re, im = real[-1][idx], imag[-1][idx]
+            for k in range(real.shape[0] - 2, -1, -1):
+                re *= s
+                re += real[k][idx]
+                im *= s
+                im += imag[k][idx]
+            out.append((re * c + im * sn) + 1j * (im * c - re * sn))  # times exp(-j k rho)
+        return out, ok
+
+    def field(self, d: np.ndarray, along=None) -> tuple[np.ndarray, np.ndarray]:
+        """(E (N, 3) [east, north, up], or E . along (N,) when ``along`` (a horizontal unit vector) is given, at the
+        points it holds; which points it holds (N,) bool) at plan offsets ``d`` (N, 2) from the source's foot."""
+        rho = np.hypot(d[:, 0], d[:, 1])
+        vertical = self.kind != "horizontal"
+        names = ("A",) if vertical else ("A", "B")
+        if along is None:
+            names = names + ("C",)
+        vals, ok = self.read(rho, names)
+        r = rho[ok]
+        re, rn = d[ok, 0] / r, d[ok, 1] / r  # rho_hat; phi_hat = (-rn, re)
+        if vertical:
+            pr, pf = 1.0, 0.0
+        else:
+            p = self.axis
+            pr, pf = p[0] * re + p[1] * rn, p[1] * re - p[0] * rn
+        if along is not None:
+            out = vals[0] * (pr * (re * along[0] + rn * along[1]))
+            if not vertical:
+                out = out + vals[1] * (pf * (re * along[1] - rn * along[0]))
+            return out, ok
+        e = np.zeros((len(r), 3), dtype=complex)
+        a = vals[0] * pr
+        e[:, 0], e[:, 1], e[:, 2] = a * re, a * rn, vals[-1] * pr
+        if not vertical:
+            b = vals[1] * pf
+            e[:, 0] -= b * rn
+            e[:, 1] += b * re
+        return e, ok
+
+
+class _LeadTable(_FieldTable):
+    """The EMF up a vertical down-lead of height ``z_m`` standing at distance rho from a placed source's foot, L(rho):
+    the Gauss-Legendre sum of :func:`_emfs` over the vertical field up it (C of :class:`_FieldTable` at each of the
+    rule's heights), so E . z_hat summed up the lead is L(rho) for a vertical dipole and (p . rho_hat) L(rho) for a
+    horizontal one; kept, like the field, without its travelling phase, one polynomial per panel."""
+
+    COMPONENTS = {"vertical": ("L",), "horizontal": ("L",)}
+
+    def _values(self, rho: np.ndarray) -> np.ndarray:
+        p, h = self.axis, self.z_m
+        t, wq = _lead_rule()
+        zs = (t + 1) * h / 2
+        src = np.asarray(self.src.position_m, dtype=float)
+        pts = np.repeat(src + rho[:, None] * p[None, :], LEAD_POINTS, axis=0)
+        ez = field_vector(self.src, pts, np.tile(zs, len(rho)), self.freq_hz, self.ground, kind=self.kind)[:, 2]
+        lead = (ez.reshape(len(rho), LEAD_POINTS) @ wq) * h / 2
+        return lead[None, :] * np.exp(1j * self.k * rho)[None, :]
+
+
+def tabled_lead_emfs(src, ends_m, height_m: float, freq_hz: float, ground, *, kind: str) -> np.ndarray:
+    """The EMF up a down-lead of ``height_m`` at each of the plan points ``ends_m`` (M, 2): what :func:`_emfs` sums up
+    it from :func:`field_vector`, read from the source's lead table (:class:`_LeadTable`); worked directly where the
+    table does not hold."""
+    e = np.atleast_2d(np.asarray(ends_m, dtype=float))
+    d = e - np.asarray(src.position_m, dtype=float)[None, :]
+    key = ("lead", field_vector, _source_key(src, kind), _ground_key(ground), float(freq_hz), float(height_m))
+    table = _TABLES.get(key, lambda: _LeadTable(src, freq_hz, ground, kind, float(height_m)))
+    rho = np.hypot(d[:, 0], d[:, 1])
+    (vals,), ok = table.read(rho, ("L",))
+    out = np.empty(len(e), dtype=complex)
+    if kind == "horizontal":
+        p = table.axis
+        vals = vals * ((p[0] * d[ok, 0] + p[1] * d[ok, 1]) / rho[ok])
+    out[ok] = vals
+    if not ok.all():
+        t, wq = _lead_rule()
+        zs = (t + 1) * height_m / 2
+        m = int(np.count_nonzero(~ok))
+        ez = field_vector(src, np.repeat(e[~ok], LEAD_POINTS, axis=0), np.tile(zs, m), freq_hz, ground, kind=kind)[:, 2]
+        out[~ok] = (ez.reshape(m, LEAD_POINTS) @ wq) * height_m / 2
+    return out
+
+
+def _axis(src) -> np.ndarray:
+    o = orientation_rad(src)
+    return np.array([np.sin(o), np.cos(o)])
+
+
+def _horner(coef: np.ndarray, s: np.ndarray) -> np.ndarray:
+    """sum_k coef[..., k] s^k (coefficients lowest first)."""
+    out = coef[..., -1]
+    for k in range(coef.shape[-1] - 2, -1, -1):
+        out = out * s + coef[..., k]
+    return out
+
+
+def _table(src, freq_hz: float, ground, kind: str, z_m: float) -> _FieldTable:
+    key = (field_vector, _source_key(src, kind), _ground_key(ground), float(freq_hz), float(z_m))
+    return _TABLES.get(key, lambda: _FieldTable(src, freq_hz, ground, kind, float(z_m)))
+
+
+def tabled_field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str, tables=None) -> np.ndarray:
+    """:func:`field_vector` (N, 3), read from the source's tables against distance (:class:`_FieldTable`, one per
+    height asked; within :data:`TABLE_TOLERANCE` of each panel's largest value) when ``tables`` (default: at least
+    :func:`table_min_points` points), worked directly for the rest: a long wire at many places asks at a few
+    heights only (its own and its leads' quadrature points)."""
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
+    if not (len(p) >= table_min_points() if tables is None else tables):
+        return field_vector(src, p, z, freq_hz, ground, kind=kind)
+    out = np.zeros((len(p), 3), dtype=complex)
+    left = np.ones(len(p), dtype=bool)
+    d = p - np.asarray(src.position_m, dtype=float)[None, :]
+    for zz in np.unique(z):
+        sel = np.flatnonzero(z == zz)
+        e, ok = _table(src, freq_hz, ground, kind, float(zz)).field(d[sel])
+        out[sel[ok]] = e
+        left[sel[ok]] = False
+    if left.any():
+        out[left] = field_vector(src, p[left], z[left], freq_hz, ground, kind=kind)
+    return out
+
+
+def tabled_field_along(src, points_m, height_m: float, along, freq_hz: float, ground, *, kind: str) -> np.ndarray:
+    """The field along the horizontal unit vector ``along`` (N,) at plan points (N, 2) all at ``height_m``: what
+    :func:`field_vector` gives, read from the source's table at that height (:func:`tabled_field_vector`)."""
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    d = p - np.asarray(src.position_m, dtype=float)[None, :]
+    got, ok = _table(src, freq_hz, ground, kind, float(height_m)).field(d, along=along)
+    if ok.all():
+        return got
+    out = np.empty(len(p), dtype=complex)
+    out[ok] = got
+    e = field_vector(src, p[~ok], float(height_m), freq_hz, ground, kind=kind)
+    out[~ok] = e[:, 0] * along[0] + e[:, 1] * along[1]
+    return out
 
 
 def wire_currents_in_field(wire, freq_hz: float, feeds_m, x_m, field) -> np.ndarray:
@@ -403,6 +776,7 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         have = powers.get(src.name) if powers is not None else None
         p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
         _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
@@ -439,8 +813,86 @@ def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarr
         p[ks] = total
 
 
+def _compact_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+    """Fill ``p`` (NaN where not known) for the same compact antenna standing at several places at once, read
+    through its transmit currents (:func:`_through_currents`): its segments and currents are the same at every
+    place, only the source's field at the shifted segments and its direction change, so the field at every
+    segment of every place is one call and each reciprocity sum one einsum; :func:`received_power`'s powers."""
+    groups: dict[str, list[int]] = {}
+    for k, a in enumerate(antennas):
+        if not np.isfinite(p[k]) and not a.integrates_near_sources and not a.composite and has_place(a):
+            key = a.gain_key()
+            if key is not None and getattr(a, "transmit_segments", None) is not None:
+                groups.setdefault(key, []).append(k)
+    for ks in (ks for ks in groups.values() if len(ks) > 1):
+        ant = antennas[ks[0]]
+        segments = transmit_segments(ant, freq_hz)
+        last = transmit_segments(antennas[ks[-1]], freq_hz)
+        if segments is None or not all(np.array_equal(a, b) for a, b in zip(segments, last)):
+            continue  # not the same segments from each place: one by one
+        at = np.array([antenna_point(antennas[k], reference_m) for k in ks])
+        total = np.zeros(len(ks))
+        for kind, _ in dipoles(src):
+            total += np.abs(_through_currents_many(ant, src, freq_hz, at, ground, kind, segments)) ** 2
+        p[ks] = total
+
+
+def _through_currents_many(antenna, src, freq_hz: float, at, ground, kind: str, segments) -> np.ndarray:
+    """:func:`_through_currents` of one antenna at each of the places ``at`` (K, 2): (K,) complex."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    pts, dirs, cur = segments
+    pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
+    n, m = len(at), len(pts)
+    where = (at[:, None, :] + pts[None, :, :2]).reshape(-1, 2)
+    e = field_vector(src, where, np.tile(pts[:, 2], n), freq_hz, ground, kind=kind).reshape(n, m, 3)
+    v_src = np.einsum("kni,ni,n->k", e, dirs, cur)
+    az = bearing_to(src, at)
+    el = float(src.elevation_rad)
+    rv, rh = antenna.complex_response(freq_hz, az, np.full(n, el))
+    # a unit plane wave from each place's direction toward the source (plane_wave_field, every azimuth at once)
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    ca, sa = np.cos(az), np.sin(az)
+    ce, se = np.cos(el), np.sin(el)
+    toward = np.stack([ce * sa, ce * ca, np.full(n, se)], axis=1)  # (K, 3)
+    mirror = toward * np.array([1.0, 1.0, -1.0])
+    r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([el]), freq_hz))
+    direct = np.exp(1j * k * pts @ toward.T)  # (N, K)
+    reflected = np.exp(1j * k * pts @ mirror.T)
+    dc = dirs * cur[:, None]  # (N, 3)
+    pol_v = (direct * (dc[:, :1] * (-se * sa) + dc[:, 1:2] * (-se * ca) + dc[:, 2:] * ce)).sum(axis=0) + r_v * (
+        reflected * (dc[:, :1] * (se * sa) + dc[:, 1:2] * (se * ca) + dc[:, 2:] * ce)
+    ).sum(axis=0)
+    pol_h = ((direct + r_h * reflected) * (dc[:, :1] * ca - dc[:, 1:2] * sa)).sum(axis=0)
+    out = np.zeros(n, dtype=complex)
+    for j in range(n):
+        best = None
+        for r, v_pw in ((complex(rv[j]), pol_v[j]), (complex(rh[j]), pol_h[j])):
+            if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
+                best = (r, v_pw)
+        if best is not None and best[0] != 0:
+            out[j] = v_src[j] * best[0] / best[1]
+    return out
+
+
 def _field_power(src, point_m, freq_hz: float, ground) -> float:
-    """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added."""
+    """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added (kept: a source measured
+    elsewhere asks for the same two points at every pickup)."""
+    key = (
+        nearground.field,  # the function itself (a test may put another in its place)
+        _source_key(src, src.polarisation),
+        float(src.elevation_rad),
+        _ground_key(ground),
+        float(freq_hz),
+        tuple(float(c) for c in point_m),
+    )
+    return _FIELD_POWERS.get(key, lambda: _field_power_worked(src, point_m, freq_hz, ground))
+
+
+_FIELD_POWERS = Memo(64)
+
+
+def _field_power_worked(src, point_m, freq_hz: float, ground) -> float:
     total = 0.0
     for kind, _ in dipoles(src):
         ev, eh = source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)

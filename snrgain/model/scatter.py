@@ -203,7 +203,7 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
         field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
         field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
         ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
-        h2 = np.abs(eh0) ** 2
+        sums = _cell_sums(ev0, eh0, field, el, ux, uy)
         for start in range(0, len(ks), 128):
             chunk = ks[start : start + 128]
             cs, refs = [], []
@@ -215,10 +215,71 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
                 cs.append(t[0])
                 refs.append(t[1])
             d = np.asarray(tx.position_m, dtype=float)[None, :] - np.asarray(refs, dtype=float)
-            phi = np.exp(1j * k_wave * (d[:, :1] * ux[None, :] + d[:, 1:] * uy[None, :]))
-            g = np.abs(ev0[None, :] + np.asarray(cs)[:, None] * field[None, :] * phi) ** 2 + h2[None, :]
-            out[chunk] = alone["rdf_db"] - _rdf_db(g, el)
+            out[chunk] = alone["rdf_db"] - _rdf_at(sums, np.asarray(cs), d, k_wave, ux, uy)
     return out
+
+
+def _cell_sums(ev0, eh0, field, el, ux, uy) -> tuple:
+    """What the RDF of ``ev0 + c field exp(j k d . u)`` (and ``eh0``) on tx_cost's grid (:func:`_rdf_db`) needs of
+    the response and the scattered field, the same at every place: the mean of |ev0|^2 + |eh0|^2 and of |field|^2
+    over the cells, weighted as :func:`_rdf_db` weighs them; a = w conj(ev0) field on each half of the azimuths
+    (the second half the first turned 180 deg: its phases the conjugates); and the forward direction's values."""
+    n = len(el) - 2
+    w = np.cos(el[:n]) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi)
+    a = w * np.conj(ev0[:n]) * field[:n]
+    half = n // 2
+    paired = (
+        n % 2 == 0
+        and np.allclose(ux[half:n], -ux[:half], atol=1e-12)
+        and np.allclose(uy[half:n], -uy[:half], atol=1e-12)
+    )
+    if not paired:  # another grid: every cell's phase worked
+        half = n
+    return (
+        float(np.sum(w * (np.abs(ev0[:n]) ** 2 + np.abs(eh0[:n]) ** 2))),
+        float(np.sum(w * np.abs(field[:n]) ** 2)),
+        a[:half],
+        np.conj(a[half:]),
+        (ev0[-2], abs(eh0[-2]) ** 2, field[-2]),
+    )
+
+
+def _rdf_at(sums, cs, d, k_wave, ux, uy) -> np.ndarray:
+    """:func:`_rdf_db` of |ev0 + c field exp(j k d . u)|^2 + |eh0|^2 for each place (its coupling term c (P,), its
+    offset d (P, 2) toward the scatterer), from :func:`_cell_sums`: the mean over the cells is
+    mean(|ev0|^2 + |eh0|^2) + |c|^2 mean(|field|^2) + 2 Re(c sum(a exp(j k d . u))), the phases worked on the
+    first half of the azimuths only (the grid's azimuths come in pairs 180 deg apart, so the second half's phases
+    are the first's conjugates), at many places as the east phase times the north one (:func:`_phases`)."""
+    base, power, a1, a2c, (ev_f, h2_f, field_f) = sums
+    half = len(a1)
+    if len(d) > 1:  # places on a lattice: rows of phases per east and per north offset, shared
+        grid = (float(k_wave), hash(ux[:half].tobytes()), hash(uy[:half].tobytes()))
+        phi = _phases(grid, 0, d[:, 0], k_wave, ux[:half]) * _phases(grid, 1, d[:, 1], k_wave, uy[:half])
+    else:
+        arg = k_wave * (d[:, :1] * ux[None, :half] + d[:, 1:] * uy[None, :half])
+        phi = np.cos(arg) + 1j * np.sin(arg)
+    s = np.einsum("pj,j->p", phi, a1) + np.conj(np.einsum("pj,j->p", phi[:, : len(a2c)], a2c))
+    mean = base + np.abs(cs) ** 2 * power + 2 * np.real(cs * s)
+    fwd = np.exp(1j * k_wave * (d[:, 0] * ux[-2] + d[:, 1] * uy[-2]))
+    g_f = np.abs(ev_f + cs * field_f * fwd) ** 2 + h2_f
+    return 10 * np.log10(np.maximum(g_f, 1e-30)) - 10 * np.log10(np.maximum(mean, 1e-30))
+
+
+_PHASES = Memo(256)
+"""exp(j k x u) over tx_cost's cells for one east or north offset x [m] (a layout's places share a lattice)."""
+
+
+def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> np.ndarray:
+    """exp(j k x_p u) (P, cells) for offsets ``x`` (P,) along one axis (the phase exp(j k d . u) is the product of
+    the east and the north one's), each distinct offset's row worked once and kept (``grid``: what the cells are)."""
+    values, which = np.unique(x, return_inverse=True)
+
+    def row(v):
+        arg = k_wave * v * u
+        return np.cos(arg) + 1j * np.sin(arg)
+
+    rows = np.array([_PHASES.get((grid, axis, float(v)), lambda v=v: row(v)) for v in values])
+    return rows[which.ravel()]
 
 
 def tx_cost(

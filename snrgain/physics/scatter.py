@@ -304,20 +304,38 @@ TABLE_RHO_M = np.geomspace(0.05, 50_000.0, 1200)
 """Distances [m] the vertical's field is tabulated at for long wires (:func:`_field_along`): 1.16 % apart."""
 
 
-def _field_table(tx: TxVertical, freq_hz: float, z_m: float) -> tuple[np.ndarray, np.ndarray]:
-    """(E_rho, E_z) exp(+j k rho) of :func:`field_vector_at` at :data:`TABLE_RHO_M` and height ``z_m``: the field is
-    the same all round the vertical, and without its travelling phase it is smooth in log(rho)."""
+TABLE_BLOCK = 40
+"""Nodes of :data:`TABLE_RHO_M` worked at once, when a distance first needs them (most wires span a few hundred)."""
 
-    def make():
+
+class _Table:
+    """(E_rho, E_z) exp(+j k rho) at :data:`TABLE_RHO_M`, filled a block of nodes at a time (NaN where not yet)."""
+
+    def __init__(self):
+        self.e_rho = np.full(len(TABLE_RHO_M), np.nan + 0j)
+        self.e_z = np.full(len(TABLE_RHO_M), np.nan + 0j)
+        self.done = np.zeros(-(-len(TABLE_RHO_M) // TABLE_BLOCK), dtype=bool)
+
+
+def _field_table(tx: TxVertical, freq_hz: float, z_m: float, lo: int = 0, hi: int | None = None):
+    """(E_rho, E_z) exp(+j k rho) of :func:`field_vector_at` at :data:`TABLE_RHO_M` and height ``z_m``: the field is
+    the same all round the vertical, and without its travelling phase it is smooth in log(rho).  Only the nodes
+    ``lo`` .. ``hi`` (default all) are sure to be there: the table is made in blocks as distances ask."""
+    key = ("table", tx.vertical.params.model_dump_json(), tx.radius_m, float(freq_hz), float(z_m))
+    table = _TABLES.get(key, _Table)
+    hi = len(TABLE_RHO_M) - 1 if hi is None else hi
+    blocks = np.arange(lo // TABLE_BLOCK, hi // TABLE_BLOCK + 1)
+    todo = blocks[~table.done[blocks]]
+    if len(todo):
+        nodes = np.concatenate([np.arange(b * TABLE_BLOCK, min((b + 1) * TABLE_BLOCK, len(TABLE_RHO_M))) for b in todo])
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        rho = np.maximum(TABLE_RHO_M, 4 * tx.radius_m)
+        rho = np.maximum(TABLE_RHO_M[nodes], 4 * tx.radius_m)
         here = TxVertical(tx.vertical, (0.0, 0.0), tx.load_ohm, tx.radius_m)
         e = field_vector_at(here, freq_hz, np.column_stack([rho, np.zeros_like(rho)]), np.full(len(rho), z_m))
         undo = np.exp(1j * k * rho)
-        return e[:, 0] * undo, e[:, 2] * undo
-
-    key = ("table", tx.vertical.params.model_dump_json(), tx.radius_m, float(freq_hz), float(z_m))
-    return _TABLES.get(key, make)
+        table.e_rho[nodes], table.e_z[nodes] = e[:, 0] * undo, e[:, 2] * undo
+        table.done[todo] = True
+    return table.e_rho, table.e_z
 
 
 def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
@@ -357,19 +375,41 @@ def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: n
     k = 2 * np.pi * freq_hz / C_M_PER_S
     lr, grid = np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
     out = np.zeros((len(pts), 3), dtype=complex)
-    for z in np.unique(heights):
-        sel = heights == z
-        e_rho, e_z = _field_table(tx, freq_hz, float(z))
-        phase = np.exp(-1j * k * rho[sel])
-
-        def at(t, sel=sel):
-            return np.interp(lr[sel], grid, t.real) + 1j * np.interp(lr[sel], grid, t.imag)
-
+    zs = np.unique(heights)
+    for z in zs:
+        sel = slice(None) if len(zs) == 1 else np.flatnonzero(heights == z)  # one height: no selection
+        x, r = lr[sel], rho[sel]
+        j = np.searchsorted(grid, x, side="right") - 1  # grid[j] <= x < grid[j + 1] (the last of equal nodes)
+        lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)  # the nodes the points fall between
+        e_rho, e_z = _field_table(tx, freq_hz, float(z), lo, hi)
+        phase = np.exp(-1j * k * r)
+        at = _interpolator(x, grid, j)
         er, ez = at(e_rho) * phase, at(e_z) * phase
-        out[sel, 0] = er * d[sel, 0] / rho[sel]
-        out[sel, 1] = er * d[sel, 1] / rho[sel]
+        out[sel, 0] = er * d[sel, 0] / r
+        out[sel, 1] = er * d[sel, 1] / r
         out[sel, 2] = ez
     return out
+
+
+def _interpolator(x: np.ndarray, grid: np.ndarray, j: np.ndarray):
+    """np.interp(x, grid, .) of complex tables, real and imaginary parts, with the interval j of each x found once
+    (grid[j] <= x < grid[j + 1]; the same arithmetic: slope (f[j+1] - f[j]) / (grid[j+1] - grid[j]) times
+    (x - grid[j]) plus f[j], the end values beyond the ends)."""
+    below, above = j < 0, j >= len(grid) - 1
+    jc = np.clip(j, 0, len(grid) - 2)
+    dx = x - grid[jc]
+    step = grid[1:] - grid[:-1]
+
+    def part(f):
+        v = (f[jc + 1] - f[jc]) / step[jc] * dx + f[jc]
+        if below.any() or above.any():
+            v = np.where(below, f[0], np.where(above, f[-1], v))
+        return v
+
+    def at(t):
+        return part(t.real) + 1j * part(t.imag)
+
+    return at
 
 
 def wire_coupling(wire, tx: TxVertical, freq_hz: float, feed_m) -> complex:

@@ -24,7 +24,7 @@ The search (deterministic, so reproducible):
    lengths over the range, feed points on a square grid over the lot (about
    150 inside it); the feasible designs kept, the best few per candidate;
 2. the best combination of those that do not cross one another;
-3. a joint local refinement from it (scipy.optimize.minimize, Nelder-Mead, on
+3. a joint local refinement from it (Nelder-Mead: :func:`nelder_mead`, on
    the continuous values with a penalty for any violation), kept only if it
    is feasible and better.
 
@@ -44,6 +44,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from snrgain.decide.lot import footprint, polygon, tx_clearance_m
+from snrgain.model.placed import tabled
 from snrgain.scenario.switched import switched_state
 from snrgain.units import length_text, length_unit_of
 
@@ -163,6 +164,7 @@ class Problem:
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
+        self._scored: dict[tuple, float] = {}
 
     # -- one candidate ----------------------------------------------------------------------------------------
 
@@ -193,7 +195,9 @@ class Problem:
         if hit is None:
             ant = self.antenna(i, bearing_rad, length_m)
             sub = pipeline.with_candidates(self.sc, [ant], 1 + self.index[i])
-            hit = self._sky[key] = (ant, pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref))
+            with tabled():
+                p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+            hit = self._sky[key] = (ant, p)
         return hit
 
     @staticmethod
@@ -228,8 +232,9 @@ class Problem:
         if exact:
             return self.ranked_gains_db(ants, i)[:, self.target[i][0]]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
-        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
-        gains = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, self.target[i][0]]
+        with tabled():  # the search's own scores: the source's field read from its tables at every place
+            p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+        gains = _statistic(sub, pipeline.snr_gains(sub, p), self.target[i][0])[1:]
         return gains - self.tx_costs_db(ants)
 
     def ranked_gains_db(self, ants, i: int) -> np.ndarray:
@@ -270,13 +275,15 @@ class Problem:
         if known is None:
             states = [self.sc.candidates[k] for k in self.members[i]]
             sub = pipeline.with_candidates(self.sc, states, 1 + self.index[i])
-            known = self._sky[key] = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+            with tabled():
+                known = self._sky[key] = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
         ants = [a for d in designs for a in self.states_at(i, d)]
         if exact:
             g = self.ranked_gains_db(ants, i)
         else:
             sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
-            p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+            with tabled():
+                p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
             g = pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :] - self.tx_costs_db(ants)[:, None]
         best = g.reshape(len(designs), len(self.members[i]), -1)[:, :, list(self.target[i])].max(axis=1)
         return 10 * np.log10(np.mean(10 ** (best / 10), axis=1))
@@ -294,8 +301,11 @@ class Problem:
         return total
 
     def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
-        """:meth:`snr_gains_db` of one design."""
-        return float(self.snr_gains_db([d], i, exact=exact)[0])
+        """:meth:`snr_gains_db` of one design, kept (the layouts shown share designs; so do the refinement's steps)."""
+        key = (i, d, exact)  # the refinement's first simplex moves one candidate at a time: the others' are kept
+        if key not in self._scored:
+            self._scored[key] = float(self.snr_gains_db([d], i, exact=exact)[0])
+        return self._scored[key]
 
     # -- geometry -----------------------------------------------------------------------------------------------
 
@@ -352,20 +362,24 @@ class Problem:
             shapes = np.array([self.footprint(d) for d in designs], dtype=object)
         line = shapely.length(shapes) > 0
         columns = []
-        lot = np.where(
-            line,
-            shapely.length(shapely.difference(shapes, self.lot)),
-            np.where(shapely.covers(self.lot, shapes), 0.0, 1.0 + shapely.distance(self.lot.exterior, shapes)),
-        )
+        # the overlays worked only where they can be other than empty (a footprint the lot covers has nothing
+        # outside it; one that misses a keep-out area has nothing inside it): the same values, most designs skipped
+        for g in (self.lot, *self.keep):
+            shapely.prepare(g)
+        covered = shapely.covers(self.lot, shapes)
+        lot = np.zeros(len(shapes))
+        out = ~covered
+        if out.any():
+            lot[out & line] = shapely.length(shapely.difference(shapes[out & line], self.lot))
+            lot[out & ~line] = 1.0 + shapely.distance(self.lot.exterior, shapes[out & ~line])
         columns.append(("the lot's outline", lot))
         for (name, _), k in zip(self.sc.site.keep_out, self.keep):
-            inter = shapely.intersection(shapes, k)
-            columns.append(
-                (
-                    f"keep-out area {name!r}",
-                    np.where(line, shapely.length(inter), np.where(shapely.is_empty(inter), 0.0, 1.0)),
-                )
-            )
+            hit = shapely.intersects(shapes, k)
+            inside = np.zeros(len(shapes))
+            if hit.any():
+                inter = shapely.intersection(shapes[hit], k)
+                inside[hit] = np.where(line[hit], shapely.length(inter), np.where(shapely.is_empty(inter), 0.0, 1.0))
+            columns.append((f"keep-out area {name!r}", inside))
         if self.tx is not None:
             applies = np.array(
                 [self.clearance_given or not self.cost_computed[self.names.index(d.name)] for d in designs]
@@ -504,8 +518,6 @@ class Problem:
     def refine(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
         """Joint Nelder-Mead from ``start`` over positions, bearings and lengths (within their ranges), with a
         penalty of 3 dB per metre of violation; the start is kept unless a feasible, better layout is found."""
-        from scipy.optimize import minimize
-
         x0, bounds = [], []
         for i, d in enumerate(start.designs):
             pl = self.places[i]
@@ -540,14 +552,10 @@ class Problem:
             v = sum(self.violation_m(d, ds[:j]) for j, d in enumerate(ds))
             return -Layout((), tuple(self.snr_gain_db(d, i) for i, d in enumerate(ds)), ()).worth_db + 3.0 * v
 
-        res = minimize(
-            cost,
-            np.array(x0, dtype=float),
-            method="Nelder-Mead",
-            bounds=bounds,
-            options={"maxfev": max_evaluations, "xatol": 0.5, "fatol": 0.01},
+        best = nelder_mead(
+            cost, np.array(x0, dtype=float), bounds, max_evaluations=max_evaluations, xatol=0.5, fatol=0.01
         )
-        ds = designs_of(np.clip(res.x, [b[0] for b in bounds], [b[1] for b in bounds]))
+        ds = designs_of(np.clip(best, [b[0] for b in bounds], [b[1] for b in bounds]))
         if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
             cand = self._layout(ds)
             if cand.worth_db > start.worth_db:
@@ -576,6 +584,86 @@ class Problem:
         raise ValueError("layout: no valid random placement found")
 
 
+class _Spent(Exception):
+    """The evaluations allowed are spent."""
+
+
+def nelder_mead(fun, x0, bounds, *, max_evaluations: int, xatol: float, fatol: float) -> np.ndarray:
+    """The point of least ``fun`` found by the Nelder-Mead simplex search within ``bounds`` ((low, high) per
+    variable; J. A. Nelder and R. Mead, "A simplex method for function minimization", Computer Journal 7 (1965)
+    308-313, with the usual coefficients: reflection 1, expansion 2, contraction 1/2, shrink 1/2).
+
+    Conventions (those of scipy.optimize.minimize's "Nelder-Mead", so the layout found is the one it found, a test):
+    the start clipped into the bounds; the first simplex the start and, per variable, the start with that variable
+    5 % larger (0.00025 where it is 0), a vertex beyond an upper bound mirrored back inside it, then all clipped;
+    every trial point clipped; the vertices kept sorted by value; stop when no vertex is more than ``xatol`` from
+    the best in any variable and no value more than ``fatol`` from the best, or before an evaluation beyond
+    ``max_evaluations``."""
+    lo = np.array([b[0] for b in bounds], dtype=float)
+    hi = np.array([b[1] for b in bounds], dtype=float)
+    x0 = np.clip(np.asarray(x0, dtype=float).ravel(), lo, hi)
+    n = len(x0)
+    sim = np.empty((n + 1, n))
+    sim[0] = x0
+    for k in range(n):
+        y = x0.copy()
+        y[k] = 1.05 * y[k] if y[k] != 0 else 0.00025
+        sim[k + 1] = y
+    sim = np.clip(np.where(sim > hi, 2 * hi - sim, sim), lo, hi)
+    calls = [0]
+
+    def f(x):
+        if calls[0] >= max_evaluations:
+            raise _Spent
+        calls[0] += 1
+        return float(fun(np.copy(x)))
+
+    fsim = np.full(n + 1, np.inf)
+    try:
+        for k in range(n + 1):
+            fsim[k] = f(sim[k])
+    except _Spent:
+        pass
+    for _ in range(2):  # sorted twice, as the conventions' first sort is (equal values may swap)
+        order = np.argsort(fsim)
+        sim, fsim = sim[order], fsim[order]
+    while calls[0] < max_evaluations:
+        try:
+            if np.max(np.abs(sim[1:] - sim[0])) <= xatol and np.max(np.abs(fsim[0] - fsim[1:])) <= fatol:
+                break
+            centre = np.add.reduce(sim[:-1], 0) / n
+            worst = sim[-1]
+            xr = np.clip(2 * centre - worst, lo, hi)  # reflected
+            fr = f(xr)
+            if fr < fsim[0]:
+                xe = np.clip(3 * centre - 2 * worst, lo, hi)  # expanded
+                fe = f(xe)
+                sim[-1], fsim[-1] = (xe, fe) if fe < fr else (xr, fr)
+            elif fr < fsim[-2]:
+                sim[-1], fsim[-1] = xr, fr
+            else:
+                if fr < fsim[-1]:  # contracted outside
+                    xc = np.clip(1.5 * centre - 0.5 * worst, lo, hi)
+                    fc = f(xc)
+                    shrink = not fc <= fr
+                else:  # contracted inside
+                    xc = np.clip(0.5 * centre + 0.5 * worst, lo, hi)
+                    fc = f(xc)
+                    shrink = not fc < fsim[-1]
+                if not shrink:
+                    sim[-1], fsim[-1] = xc, fc
+                else:
+                    for j in range(1, n + 1):
+                        sim[j] = np.clip(sim[0] + 0.5 * (sim[j] - sim[0]), lo, hi)
+                        fsim[j] = f(sim[j])
+        except _Spent:
+            pass
+        finally:
+            order = np.argsort(fsim)
+            sim, fsim = sim[order], fsim[order]
+    return sim[0]
+
+
 def plan_data(problem: Problem, layout: Layout) -> dict:
     """What :func:`snrgain.outputs.plots.layout_plan` draws: the site plan (:func:`snrgain.outputs.siteplan.plan_of`:
     the lot, keep-outs, the TX vertical and its clearance, the placed sources, every antenna as built) with the
@@ -596,6 +684,16 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
     plan = plan_of(problem.sc, data=problem.data, designs=tuple(designs), gains=gains)
     plan["layout"] = as_dict([layout])["layouts"][0]
     return plan
+
+
+def _statistic(sc, g: np.ndarray, t: int) -> np.ndarray:
+    """The ranking's statistic (snrgain.model.products.target_statistic) toward target ``t`` of every antenna at
+    once, from SNR gains (antennas, targets, months, hours): the median (or the mean) of each row over the target's
+    months and hours (snrgain.model.spread.over_hours)."""
+    from snrgain.model.products import target_masks
+
+    v = g[:, t][:, target_masks(sc)[t]]  # (antennas, the target's month-hours)
+    return np.median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
 
 
 def _member(antenna) -> str:
