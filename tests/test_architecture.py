@@ -143,3 +143,27 @@ def test_the_old_flat_paths_are_the_moved_modules():
         groups = ("physics", "sky", "model", "decide", "tools", "outputs")
         (new,) = [f"snrgain.{g}.{p.stem}" for g in groups if (PACKAGE / g / f"{p.stem}.py").exists()]
         assert old is importlib.import_module(new), p.stem
+
+
+def _snrgain_imports(path) -> list[tuple[int, str]]:
+    """(line, module) of every snrgain import in a file, at any depth (function-level imports included)."""
+    out = []
+    for node in ast.walk(ast.parse(path.read_text())):
+        if isinstance(node, ast.ImportFrom) and node.module and node.module.startswith("snrgain"):
+            out.append((node.lineno, node.module))
+        elif isinstance(node, ast.Import):
+            out += [(node.lineno, a.name) for a in node.names if a.name.startswith("snrgain")]
+    return out
+
+
+def test_the_physics_layer_reaches_no_higher_layer():
+    # physics holds the published models (ground, lines, chain, the vertical as a scatterer, the reciprocity
+    # integral); the model, decide, tools and outputs layers build on it, never the other way round.
+    higher = ("snrgain.model", "snrgain.decide", "snrgain.tools", "snrgain.outputs", "snrgain.cli")
+    found = [
+        f"{path.relative_to(REPO)}:{line}: {mod}"
+        for path in sorted((PACKAGE / "physics").glob("*.py"))
+        for line, mod in _snrgain_imports(path)
+        if mod.startswith(higher)
+    ]
+    assert not found, found

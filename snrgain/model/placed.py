@@ -60,7 +60,10 @@ import numpy as np
 from noisemodels import nearground
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
-from snrgain.physics.quadrature import gauss_legendre
+from snrgain.physics.reciprocity import LEAD_POINTS, wire_currents_in_field  # noqa: F401 (the module's API)
+from snrgain.physics.reciprocity import lead_rule as _lead_rule
+from snrgain.physics.reciprocity import through_line as _through_line
+from snrgain.physics.reciprocity import wire_emfs as _emfs
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
 """The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
@@ -221,10 +224,6 @@ FIELD_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
 
-LEAD_POINTS = 6
-"""Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
-
-
 def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=None) -> np.ndarray:
     """The feed currents of a long wire driven by a placed source's whole field (reciprocity: the line model's
     distributed series EMF is the field along the wire at its height, direct, reflected and surface wave, and each
@@ -240,56 +239,6 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
     else:
         emf, lead = _emfs(wire, feeds, x, u, field)
     return _through_line(wire, freq_hz, x, emf, lead)
-
-
-def _emfs(wire, feeds, x, u, field, along=None, leads=None) -> tuple[np.ndarray, np.ndarray | None]:
-    """(EMF per metre along the wire (N, len(x)), feed toward far end; the EMF up each down-lead (2N,): the feed
-    ends, then the far ends, or None without leads) of a long wire with its feed at each of ``feeds`` (N, 2) in
-    ``field(points, heights)``; ``along(points, height)``: the field along the wire at its height, and
-    ``leads(ends, height)``: the EMF up a lead at each end, when quicker."""
-    n, L = len(feeds), wire.length_m
-    h = wire.wire_height_m()
-    pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    if along is not None:
-        emf = along(pts, h).reshape(n, -1)
-    else:
-        e = field(pts, np.full(len(pts), h))
-        emf = (e[:, 0] * u[0] + e[:, 1] * u[1]).reshape(n, -1)
-    lead = None
-    if wire.has_leads and h > 0:
-        t, wq = _lead_rule()
-        zs = (t + 1) * h / 2
-        ends = np.concatenate([feeds, feeds + L * u[None, :]])  # (2n, 2): feed ends, then far ends
-        if leads is not None:
-            return emf, leads(ends, h)
-        ez = field(np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, 2 * n))
-        lead = (ez[:, 2].reshape(2 * n, LEAD_POINTS) @ wq) * h / 2
-    return emf, lead
-
-
-def _lead_rule() -> tuple[np.ndarray, np.ndarray]:
-    """The Gauss-Legendre rule up a down-lead (:data:`LEAD_POINTS` points on [-1, 1]), made once."""
-    return gauss_legendre(LEAD_POINTS)
-
-
-def _through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
-    """The feed currents (N,) from the EMFs of :func:`_emfs`, through the line model's transfer functions."""
-    n, L = len(emf), wire.length_m
-    ln = wire.line(freq_hz)
-    g, z0 = ln.gamma, ln.z0
-    z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
-    z_far = wire.far_load_ohm(freq_hz)
-    if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
-        transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
-    else:
-        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
-        transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
-    current = np.trapezoid(emf * transfer[None, :], x, axis=1)
-    if lead is not None:
-        current = current + lead[:n] * transfer[0]  # up the feed lead
-        if z_far is not None:
-            current = current - lead[n:] * transfer[-1]  # down the far lead
-    return current
 
 
 _EMFS = Memo(256)
@@ -623,16 +572,6 @@ def tabled_field_along(src, points_m, height_m: float, along, freq_hz: float, gr
     e = field_vector(src, p[~ok], float(height_m), freq_hz, ground, kind=kind)
     out[~ok] = e[:, 0] * along[0] + e[:, 1] * along[1]
     return out
-
-
-def wire_currents_in_field(wire, freq_hz: float, feeds_m, x_m, field) -> np.ndarray:
-    """Feed currents [A] (N,) of a long wire with its feed at each of ``feeds_m`` (N, 2) [m], driven by the incident
-    ``field(points (M, 2), heights (M,))`` -> (M, 3) [V/m] along it (samples ``x_m`` [m]) and up its leads: the
-    reciprocity integral placed sources use (another field: the transmitting vertical's, snrgain.physics.scatter)."""
-    b = wire.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    feeds = np.atleast_2d(np.asarray(feeds_m, dtype=float))
-    return _currents_on(wire, None, freq_hz, feeds, None, np.asarray(x_m, dtype=float), u, field=field)
 
 
 def hears(antenna, src, freq_hz: float, reference_m) -> bool:

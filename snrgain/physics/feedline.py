@@ -96,6 +96,7 @@ import numpy as np
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.quadrature import gauss_legendre
+from snrgain.physics.reciprocity import LEAD_POINTS
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -358,10 +359,6 @@ def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_r
     """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon."""
     ev, eh = sky_response(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
     return np.abs(ev) ** 2 + np.abs(eh) ** 2
-
-
-LEAD_POINTS = 6
-"""Gauss-Legendre points up each lead for the integral of the vertical field."""
 
 
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:

@@ -425,7 +425,7 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     expression (a layout trying a design at many places); the samples along the wire are set by the closest
     approach of any of them."""
     from snrgain.antennas.longwire import port_response
-    from snrgain.model.placed import wire_currents_in_field
+    from snrgain.physics.reciprocity import wire_currents_in_field
 
     feeds = np.atleast_2d(np.asarray(feeds_m, dtype=float))
     u = np.array([np.sin(wire.bearing_rad), np.cos(wire.bearing_rad)])
