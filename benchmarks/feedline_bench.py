@@ -111,15 +111,11 @@ def scenario(*, sources: bool, feed_lines: bool, compact: bool) -> str:
 
 
 def clear_memos() -> None:
-    """Empty every store of results kept within a run (each snrgain.memo.Memo of a loaded module): a timed run
-    pays for its own fields and feed lines as a fresh ``rank`` would; the sky maps' disk cache stays warm."""
-    from snrgain.memo import Memo
+    """Empty every store of results kept within a run (snrgain.memo.forget): a timed run pays for its own fields and
+    feed lines as a fresh ``rank`` would; the sky maps' disk cache stays warm."""
+    from snrgain.memo import forget
 
-    for name, module in list(sys.modules.items()):
-        if name.startswith(("snrgain", "noisemodels")):
-            for value in list(vars(module).values()):
-                if isinstance(value, Memo):
-                    value.clear()
+    forget()
 
 
 def timed(text: str, repeat: int) -> float:

@@ -33,3 +33,18 @@ class Memo:
 
     def clear(self) -> None:
         self._held.clear()
+
+
+def forget(*, lru_caches: bool = False) -> None:
+    """Empty every Memo of a loaded snrgain or noisemodels module (and with ``lru_caches`` every functools cache
+    there too): what a benchmark calls before a run that must pay for its own work, as a fresh process would."""
+    import sys
+
+    for name, module in list(sys.modules.items()):
+        if not name.startswith(("snrgain", "noisemodels")):
+            continue
+        for value in list(vars(module).values()):
+            if isinstance(value, Memo):
+                value.clear()
+            elif lru_caches and callable(getattr(value, "cache_clear", None)):
+                value.cache_clear()
