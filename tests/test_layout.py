@@ -236,4 +236,5 @@ def test_a_design_scored_through_its_unplaced_products_equals_a_fresh_evaluation
         sub = pipeline.with_candidates(pb.sc, [ant], 1 + pb.index[i])
         fresh = pipeline.products(sub, sub.antennas, pb.grid, pb.skies)
         expected = pipeline.target_statistic(sub, pipeline.snr_gains(sub, fresh))[1, pb.target[i]]
-        assert via_known[0] == pytest.approx(expected - pb.tx_costs_db([ant])[0], abs=1e-9)
+        # the search reads a placed source's field from tables held to 1e-4 (placed.TABLE_TOLERANCE)
+        assert via_known[0] == pytest.approx(expected - pb.tx_costs_db([ant])[0], abs=1e-3)

@@ -1,8 +1,8 @@
 """A placed source heard by one wire design at many places at once (the layout's grid) equals each place alone.
 
 Many places read the source's field from its tables against distance (snrgain.model.placed._FieldTable); one
-place works it point by point.  The two must agree to 1e-9 of the pickup, for a vertical source and for a
-horizontal one (whose table leans on flat ground's symmetry about the source's foot)."""
+place works it point by point.  The two must agree to the tables' tolerance (placed.TABLE_TOLERANCE), for a vertical
+source and for a horizontal one (whose table leans on flat ground's symmetry about the source's foot)."""
 
 from __future__ import annotations
 
@@ -46,7 +46,9 @@ def test_many_places_at_once_equal_each_place_alone(polarisation, orientation_de
         batch = placed.wire_feed_currents(bev, src, F_HZ, feeds, bev.ground, x_m=x, kind=kind)
         assert len(placed._TABLES) > 0
         alone = np.array([placed.wire_feed_current(bev, src, F_HZ, f, bev.ground, x_m=x, kind=kind) for f in feeds])
-        assert np.max(np.abs(batch - alone) / np.abs(alone)) < 1e-9
+        # the tables hold the field to TABLE_TOLERANCE of each panel's largest value (1e-4; the field's own tables
+        # in noisemodels.halfspace hold it to 3e-4): measured 1.7e-5 at worst on a current near a null
+        assert np.max(np.abs(batch - alone) / np.abs(alone)) < 10 * placed.TABLE_TOLERANCE
 
 
 def test_tabled_field_equals_the_field_point_by_point():
@@ -67,11 +69,11 @@ def test_tabled_field_equals_the_field_point_by_point():
     got = placed.tabled_field_vector(src, pts, z, 7.1e6, g, kind="horizontal", tables=True)
     want = placed.field_vector(src, pts, z, 7.1e6, g, kind="horizontal")
     err = np.linalg.norm(got - want, axis=1) / np.linalg.norm(want, axis=1)
-    assert np.max(err) < 1e-10
+    assert np.max(err) < placed.TABLE_TOLERANCE  # measured 2.4e-6
     u = np.array([np.sin(0.3), np.cos(0.3)])
     along = placed.tabled_field_along(src, pts, 2.0, u, 7.1e6, g, kind="horizontal")
     want = placed.field_vector(src, pts, 2.0, 7.1e6, g, kind="horizontal")[:, :2] @ u
-    assert np.max(np.abs(along - want) / np.abs(want)) < 1e-9
+    assert np.max(np.abs(along - want) / np.abs(want)) < 10 * placed.TABLE_TOLERANCE
 
 
 def test_a_wire_kept_at_its_place_hears_as_a_fresh_one_with_other_loads():

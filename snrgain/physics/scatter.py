@@ -367,9 +367,6 @@ ALONG_MEMO_POINTS = 20_000
 
 
 def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: np.ndarray) -> np.ndarray:
-    if len(heights) and np.any(heights != heights[0]) and len(heights) < len(TABLE_RHO_M):
-        # up a wire's down-leads: a few points at each of several heights, fewer than one height's table holds
-        return field_vector_at(tx, freq_hz, pts, heights)
     d = pts - np.asarray(tx.position_m, dtype=float)[None, :]
     rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
     k = 2 * np.pi * freq_hz / C_M_PER_S
