@@ -511,7 +511,9 @@ def sweep_benchmarks(memory: bool = True):
             t = time.perf_counter()
             subprocess.run([*args, "-o", f"{tmp}/{how}.csv", *extra], check=True, capture_output=True, env=env)
             times[how] = time.perf_counter() - t
-        rows = sum(1 for _ in open(f"{tmp}/dask.csv")) - 1
+        with open(f"{tmp}/dask.csv") as fh:
+            next(fh)
+            rows = len({line.split(",", 1)[0] for line in fh})  # designs (a row per design and target)
         same = filecmp.cmp(f"{tmp}/in-process.csv", f"{tmp}/dask.csv", shallow=False)
         print(f"\nsweep of {rows:,} Beverage designs (length x resistor), nside 32, including start-up:")
         print(f"  in one process {times['in-process']:.1f} s; Dask LocalCluster of 2 workers {times['dask']:.1f} s")
