@@ -632,3 +632,16 @@ def test_the_site_plan_draws_the_run():
     runs = plan_of(sc)["feed_lines"]
     assert [(n, [tuple(p) for p in r]) for n, r in runs] == [("bev", [(0.0, 150.0), (0.0, 0.0)])]
     assert plan_of(load(SCEN.format(site="", feed="")))["feed_lines"] == []
+
+
+def test_the_build_line_says_what_the_shield_meets_at_each_antenna(compact_runs):
+    # the build sheet's feed-line line names what the shield meets at the feed (it said "the antenna's ground" for
+    # every family, a loop's too, which has none)
+    from snrgain.outputs.output import feed_line_text
+
+    bare = compact_runs["bare"]
+    said = {name: feed_line_text(bare[name].build["feed_line"], "m") for name in COMPACT_NAMES}
+    assert "shield meets its radial system or rod (ground_loss 60 ohm)" in said["whip"]
+    assert "shield meets the loop itself, over the earth" in said["flag"]
+    assert "shield meets the loop itself, over the earth" in said["loop"]
+    assert "shield meets the phasing unit's ground (assumed 50 ohm)" in said["pair"]

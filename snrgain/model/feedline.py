@@ -130,9 +130,9 @@ def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
         end = phys.grounded_end(rod_ohm=r_g, loop_ohm=2 * r_rad + r_g, load_ohm=r_rad + r_g)
         return end, f"its radial system or rod (ground_loss {r_g:g} ohm)", False
     if hasattr(antenna, "termination_ohm") and hasattr(antenna, "statics"):
-        return _flag_end(antenna, f), "no ground: the loop over the earth", False
+        return _flag_end(antenna, f), "the loop itself, over the earth (no ground at its feed)", False
     if hasattr(antenna, "input_resistance_ohm") and hasattr(antenna, "area_m2"):
-        return _small_loop_end(antenna, f), "no ground: the loop over the earth", False
+        return _small_loop_end(antenna, f), "the loop itself, over the earth (no ground at its feed)", False
     raise ValueError(
         "a feed line is modelled on the long wires, verticals, loops and arrays (through the feed's ground or the "
         f"loop's capacitance to the earth); a {antenna.family} has neither"

@@ -459,7 +459,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
 def feed_line_text(fl: dict, unit: str) -> str:
     """A feed line's entry of the build sheet (snrgain.model.feedline.summary) in words."""
     run = "buried" if fl["buried"] else f"at {length_text(fl['height_m'], unit, 1)}"
-    iso = "shield on the antenna's ground" if fl["isolation"] == "shared-ground" else "isolation transformer"
+    where = fl.get("antenna_end") or "the antenna's ground"
+    iso = f"shield meets {where}" if fl["isolation"] == "shared-ground" else "isolation transformer"
     choke = f", choke {fl['choke_ohm']:.0f} ohm" if fl["choke_ohm"] else ", no choke"
     cost = max((c for c in fl["snr_gain_cost_db"] if np.isfinite(c)), default=float("nan"))
     quiet = (
