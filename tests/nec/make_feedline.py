@@ -99,8 +99,6 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j1: float, r_
     h, hs, L, Ls = c["bev_height_m"], c["shield_height_m"], c["bev_length_m"], c["shield_length_m"]
     xe, ye = L * np.sin(b), L * np.cos(b)
     a, a_s = c["wire_radius_m"], c["shield_radius_m"]
-    sx, sy = c["source_m"]
-    z0 = c["source_height_m"]
     zj = c.get("junction_m", hs)
     lines = [
         "CM Beverage with its coax shield to the station (snrgain feed-line validation case)",
@@ -120,9 +118,7 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j1: float, r_
             f"GW 6 1 0 {-Ls:g} {hs:g} 0 {-Ls:g} 0 {a_s:g}",
         ]
     lines += [
-        f"GW 7 3 {sx:g} {sy:g} {z0 - 0.5:g} {sx:g} {sy:g} {z0 + 0.5:g} {a:g}",
-        "GE 1",
-        f"GN 2 0 0 0 {c['permittivity']:g} {c['conductivity_s_per_m']:g}",
+        *source_and_ground(c, a),
         f"LD 0 1 1 1 {c['feed_rod_ohm'] - r_jf:.3f} 0 0",
         f"LD 0 2 1 1 {c['turns_ratio'] ** 2 * c['coax_ohm']:.3f} 0 0",
         f"LD 0 4 2 2 {c['termination_ohm'] + c['far_rod_ohm'] - r_j2:.3f} 0 0",
@@ -131,16 +127,33 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j1: float, r_
         lines.append(f"LD 0 6 1 1 {c['station_ground_ohm'] - r_j1:.3f} 0 0")
     if shield and choke:
         lines.append(f"LD 0 {8 if y0 else 5} 1 1 {c['choke_ohm']:.3f} 0 0")
-    lines.append(f"FR 0 1 0 0 {c['freq_mhz']:g} 0")
+    return "\n".join(lines + drive(c, excitation)) + "\n"
+
+
+def source_and_ground(c: dict, radius_m: float) -> list[str]:
+    """The noise source (tag 7: a 1 m vertical wire of 3 segments at ``source_m``, ``source_height_m``), the end of
+    the geometry and the Sommerfeld ground: the lines every feed-line deck shares."""
+    sx, sy = c["source_m"]
+    z0 = c["source_height_m"]
+    return [
+        f"GW 7 3 {sx:g} {sy:g} {z0 - 0.5:g} {sx:g} {sy:g} {z0 + 0.5:g} {radius_m:g}",
+        "GE 1",
+        f"GN 2 0 0 0 {c['permittivity']:g} {c['conductivity_s_per_m']:g}",
+    ]
+
+
+def drive(c: dict, excitation: str) -> list[str]:
+    """The frequency and the excitation to the end of a feed-line deck: "source" (the source wire's middle segment)
+    or a plane wave from the target, E along theta ("v") or phi ("h")."""
+    out = [f"FR 0 1 0 0 {c['freq_mhz']:g} 0"]
     if excitation == "source":
-        lines.append("EX 0 7 2 0 1 0")
+        out.append("EX 0 7 2 0 1 0")
     else:
         theta = 90.0 - c["target_elevation_deg"]
         phi = 90.0 - c["target_bearing_deg"]  # NEC's azimuth from +x (east), counter-clockwise
         eta = 0.0 if excitation == "v" else 90.0
-        lines.append(f"EX 1 1 1 0 {theta:g} {phi:g} {eta:g} 0 0 0")
-    lines += ["XQ", "EN"]
-    return "\n".join(lines) + "\n"
+        out.append(f"EX 1 1 1 0 {theta:g} {phi:g} {eta:g} 0 0 0")
+    return out + ["XQ", "EN"]
 
 
 def segment_currents(text: str) -> dict[tuple[int, int], complex]:

@@ -33,7 +33,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
 from make_deembedded import junction_ohm, stub_deck  # noqa: E402
-from make_feedline import segment_currents  # noqa: E402
+from make_feedline import drive, segment_currents, source_and_ground  # noqa: E402
 from necdeck import run_nec2c  # noqa: E402
 
 CASE = {
@@ -70,8 +70,6 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j: float) -> 
     seg = C_MHZ_M / c["freq_mhz"] / SEGMENTS_PER_WAVELENGTH
     h, hs, ls = c["height_m"], c["shield_height_m"], c["shield_length_m"]
     a, a_s = c["wire_radius_m"], c["shield_radius_m"]
-    sx, sy = c["source_m"]
-    z0 = c["source_height_m"]
     lines = [
         "CM short vertical with its coax shield to the station (snrgain feed-line validation case)",
         "CE",
@@ -84,9 +82,7 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j: float) -> 
             f"GW 6 1 0 {-ls:g} {hs:g} 0 {-ls:g} 0 {a_s:g}",
         ]
     lines += [
-        f"GW 7 3 {sx:g} {sy:g} {z0 - 0.5:g} {sx:g} {sy:g} {z0 + 0.5:g} 0.001",
-        "GE 1",
-        f"GN 2 0 0 0 {c['permittivity']:g} {c['conductivity_s_per_m']:g}",
+        *source_and_ground(c, 0.001),
         f"LD 0 1 1 1 {c['ground_ohm'] - r_j['foot']:.3f} 0 0",
         f"LD 0 2 1 1 {c['load_ohm']:.3f} 0 0",
     ]
@@ -94,15 +90,7 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j: float) -> 
         lines.append(f"LD 0 6 1 1 {c['station_ground_ohm'] - r_j['station']:.3f} 0 0")
     if shield and choke:
         lines.append(f"LD 0 5 1 1 {c['choke_ohm']:.3f} 0 0")
-    lines.append(f"FR 0 1 0 0 {c['freq_mhz']:g} 0")
-    if excitation == "source":
-        lines.append("EX 0 7 2 0 1 0")
-    else:
-        theta = 90.0 - c["target_elevation_deg"]
-        phi = 90.0 - c["target_bearing_deg"]
-        lines.append(f"EX 1 1 1 0 {theta:g} {phi:g} {0.0 if excitation == 'v' else 90.0:g} 0 0 0")
-    lines += ["XQ", "EN"]
-    return "\n".join(lines) + "\n"
+    return "\n".join(lines + drive(c, excitation)) + "\n"
 
 
 def run_case(c: dict, work: Path) -> dict:
