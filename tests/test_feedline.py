@@ -579,15 +579,7 @@ def _whip_loss(c: dict, choke) -> float:
             "position": [0, 0],
         }
     )
-    fl = phys.FeedLine(
-        (0.0, 0.0),
-        (0.0, -c["shield_length_m"]),
-        c["shield_height_m"],
-        0.0027,
-        c["shield_radius_m"],
-        c["station_ground_ohm"],
-        choke_ohm=choke,
-    )
+    fl = _shield(choke, c=c)
     end, _, _ = antenna_end(whip, f, g)
     cp = phys.coupling_at(fl, f, g, end)
     src = _source(*c["source_m"], height=c["source_height_m"])
