@@ -588,34 +588,14 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         one port, its shape does not depend on it); None for an unterminated wire."""
         if not self.terminated:
             return None
-        z_feed = abs(self.line(freq_hz).z0) + self.feed_rod_ohm
+        d0, d1 = line_denominator(self.line(freq_hz), self.length_m, abs(self.line(freq_hz).z0) + self.feed_rod_ohm)
         far_rod = self.far_rod_ohm
-        forms: dict[tuple, tuple] = {}  # the wave's part, formed once per set of directions
 
         def pattern(az, el, r):
-            az, el = np.asarray(az, dtype=float), np.asarray(el, dtype=float)
-            key = (az.tobytes(), el.tobytes())
-            hit = forms.get(key)
-            if hit is None:
-                w = plane_wave(freq_hz, az, el, bearing_rad=self.bearing_rad, ground=self.ground)
-                f_v, f_h = field_along_wire(w, self.wire_height_m())
-                lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
-                hit = forms[key] = (
-                    *feed_current_forms(
-                        w,
-                        line=self.line(freq_hz),
-                        length_m=self.length_m,
-                        z_feed=z_feed,
-                        drive_v=-w.cos_dphi * f_v[w.inv],
-                        drive_h=-w.sin_dphi * f_h[w.inv],
-                        v_end=lead,
-                    ),
-                    above_horizon(el),
-                )
-            (av, bv), (ah, bh), (d0, d1), above = hit
+            (av, bv), (ah, bh), _ = self._response_forms(freq_hz, az, el)  # the wave's part, kept per sky
             z = np.asarray(r, dtype=float)[..., None] + far_rod  # several resistors at once: (resistors, directions)
             p = (_power(av + z * bv) + _power(ah + z * bh)) / _power(d0 + z * d1)
-            return np.where(above, p, 0.0)
+            return np.where(above_horizon(np.asarray(el, dtype=float)), p, 0.0)
 
         pattern.vectorised = True
         return pattern
