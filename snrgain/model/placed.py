@@ -219,8 +219,9 @@ def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) 
 
 
 _FIELDS = Memo(64)
-"""A placed source's field at the points last asked (:func:`field_vector`): a wire that does not move is asked at
-the same points for every resistor a termination search tries and every variant of the spreads."""
+"""A placed source's field at the points last asked (:func:`field_vector`): a compact antenna that does not move is
+asked at its segments again for every resistor a termination search tries (a long wire's EMFs are kept whole in
+:data:`_EMFS`)."""
 FIELD_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
