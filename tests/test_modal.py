@@ -287,3 +287,34 @@ def test_buried_bog_in_soil_feels_the_surface():
     assert cf.velocity_factor < 0.9 * ex.velocity_factor
     with pytest.raises(SpecError, match="depth"):
         from_spec({**buried, "depth": "1 mm"})
+
+
+@pytest.mark.parametrize(
+    "f, h, sigma, eps", [(1.83e6, 2.5, 0.005, 13), (1.83e6, 1.0, 0.001, 5), (7.1e6, 3.0, 0.005, 13)]
+)
+def test_the_secant_settles_on_the_plain_iterations_root(f, h, sigma, eps):
+    # The mode is found by the secant method on g(gamma) - gamma (modal._settle); the plain iteration
+    # gamma <- g(gamma), written out here, converges to the same root (8-27 steps on these wires, contraction
+    # rates 0.05-0.4).
+    from noisemodels.groundwave import complex_permittivity
+    from snrgain.physics.ground import EPS0_F_PER_M, MU0_H_PER_M
+
+    k0 = 2 * np.pi * f / C_M_PER_S
+    omega = 2 * np.pi * f
+    n2 = complex_permittivity(f, eps, sigma)
+    z_int = complex(lines.wire_internal_impedance(f, A, 5.8e7))
+    gamma = start = complex(0.02 * k0, 1.03 * k0)
+    for _ in range(80):
+        p, q = modal.earth_integrals(gamma, f, h, n2)
+        lam = modal._image_term(gamma, k0, A, h)
+        z = z_int + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + 2 * p)
+        y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + q)
+        new = complex(np.sqrt(z * y))
+        new = -new if new.imag < 0 else new
+        if abs(new - gamma) < 1e-13 * abs(gamma):
+            break
+        gamma = new
+    got = modal.wire_over_earth.__wrapped__(f, h, A, eps, sigma, z_int, start)
+    assert got[0] == pytest.approx(new, rel=1e-11)
+    assert got[1] == pytest.approx(z, rel=1e-11)
+    assert got[2] == pytest.approx(y, rel=1e-11)

@@ -23,10 +23,11 @@ impedance of the current and a shunt admittance that the earth's own
 conduction lowers, and Z0 = Z' / gamma follows from the same solution.
 Over a perfect ground (n -> infinity) P and Q vanish, L -> ln(2h/a), and
 gamma = j k0 (velocity factor 1) with Z0 = 60 ln(2h/a) ohm for a lossless
-wire: the limit the tests check.  The root is found by fixed-point
-iteration gamma <- sqrt(Z'(gamma) Y'(gamma)) from the closed-form line
-constants (snrgain.physics.lines): the integrals change slowly with gamma, so a few
-steps converge to 1e-10.
+wire: the limit the tests check.  The root is that of the fixed-point
+equation gamma = sqrt(Z'(gamma) Y'(gamma)), started from the closed-form line
+constants (snrgain.physics.lines): the integrals change slowly with gamma, so the
+plain iteration converges (linearly, 8-30 steps to 1e-12); the secant method on
+the same equation reaches that root in 4-6 evaluations of the integrals.
 
 Where the iteration does not settle (a nearly lossless ground, where the
 mode leaks into the earth), :func:`wire_over_earth` returns None and
@@ -59,9 +60,9 @@ from snrgain.physics.quadrature import gauss_legendre
 
 
 def _sqrt_re(z):
-    """The square root with non-negative real part."""
-    r = np.sqrt(z + 0j)
-    return np.where(np.real(r) < 0, -r, r)
+    """The square root with non-negative real part: numpy's principal complex root (C99 csqrt), whose real part
+    is never negative."""
+    return np.sqrt(z + 0j)
 
 
 def _cquad(f, a, b) -> complex:
@@ -115,7 +116,9 @@ def earth_integrals(
 
     def parts(lam):
         u0, u1 = _sqrt_re(lam * lam + kap0), _sqrt_re(lam * lam + kap1)
-        common = np.exp(-2 * u0 * h) * np.cos(lam * rho)
+        common = np.exp(-2 * u0 * h)
+        if rho:
+            common = common * np.cos(lam * rho)
         return common / (u0 + u1), u0 * (u0 - u1) * common / (n2 * u0 + u1)
 
     # The integrands fall as exp(-2 lambda h): integrate to 20 / h.  Break points: the scale of kappa0 (where u0
@@ -135,6 +138,47 @@ def _image_term(gamma, k0, radius_m, height_m) -> complex:
     from snrgain.physics.bessel import k0 as bessel_k0
 
     return bessel_k0(kap * radius_m) - bessel_k0(kap * far)
+
+
+def _forward(zy: complex) -> complex:
+    """sqrt(Z' Y') on the forward wave's branch (beta > 0)."""
+    new = complex(np.sqrt(zy + 0j))
+    return -new if new.imag < 0 else new
+
+
+def _settle(step, start: complex, tol: float, plain_steps: int):
+    """The root of gamma = g(gamma), ``step(gamma) -> (g(gamma), Z', Y')``: (g, Z', Y') at the first gamma with
+    |g(gamma) - gamma| < tol |gamma|, or None where the plain iteration does not settle.
+
+    The secant method on F(gamma) = g(gamma) - gamma (complex-analytic) converges in 4-6 evaluations where the
+    plain iteration gamma <- g(gamma) takes 8-30 (its contraction rate |g'| is 0.05-0.4 on the wires the tool
+    models).  The secant's root is taken only where the plain iteration settles there too (|g'| < 1 at the root,
+    from the secant's own slope); otherwise, or where the secant does not settle, the plain iteration decides as
+    it always did: damped after 20 steps, None after ``plain_steps``."""
+    g0 = start
+    n0, z0, y0 = step(g0)
+    f0 = n0 - g0
+    if abs(f0) < tol * abs(g0):
+        return n0, z0, y0
+    g1 = n0
+    for _ in range(30):
+        n1, z1, y1 = step(g1)
+        f1 = n1 - g1
+        if f1 == f0:
+            break
+        slope = (f1 - f0) / (g1 - g0)
+        if abs(f1) < tol * abs(g1):
+            if abs(slope + 1.0) < 1.0:
+                return n1, z1, y1
+            break
+        g0, f0, g1 = g1, f1, g1 - f1 / slope
+    gamma = start
+    for k in range(plain_steps):
+        new, z, y = step(gamma)
+        if abs(new - gamma) < tol * abs(gamma):
+            return new, z, y
+        gamma = new if k < 20 else 0.5 * (gamma + new)  # damped after 20 steps
+    return None
 
 
 @lru_cache(maxsize=256)
@@ -166,19 +210,16 @@ def wire_over_earth(
     n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
     b = radius_m if insulation_radius_m is None else insulation_radius_m
     layer = 0.0 if insulation_radius_m is None else float(np.log(b / radius_m))
-    gamma = complex(gamma_start)
-    for step in range(80):
-        p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=b if b > radius_m else 0.0)
+    rho = b if b > radius_m else 0.0
+
+    def step(gamma):
+        p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho)
         lam = _image_term(gamma, k0, b, height_m)
         z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + layer + 2 * p)
         y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + layer / insulation_permittivity + q)
-        new = complex(np.sqrt(z * y + 0j))
-        if new.imag < 0:  # the forward wave: beta > 0
-            new = -new
-        if abs(new - gamma) < 1e-12 * abs(gamma):
-            return new, complex(z), complex(y)
-        gamma = new if step < 20 else 0.5 * (gamma + new)  # damped after 20 steps
-    return None
+        return _forward(z * y), complex(z), complex(y)
+
+    return _settle(step, complex(gamma_start), 1e-12, 80)
 
 
 def buried_integrals(gamma: complex, freq_hz: float, depth_m: float, n2: complex, *, offset_m: float, adaptive=False):
@@ -240,20 +281,16 @@ def wire_in_earth(
     n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
     b = insulation_radius_m
     layer = float(np.log(b / radius_m))
-    gamma = complex(gamma_start)
-    for step in range(120):
+
+    def step(gamma):
         kap1 = _sqrt_re(-(gamma**2 + n2 * k0**2))
         k0b = bessel_k0(kap1 * b)
         r_h, r_e = buried_integrals(gamma, freq_hz, depth_m, n2, offset_m=b)
         z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (layer + k0b + r_h)
         y = 2j * np.pi * omega * EPS0_F_PER_M / (layer / insulation_permittivity + k0b / n2 + r_e)
-        new = complex(np.sqrt(z * y + 0j))
-        if new.imag < 0:
-            new = -new
-        if abs(new - gamma) < 1e-11 * abs(gamma):
-            return new, complex(z), complex(y)
-        gamma = new if step < 20 else 0.5 * (gamma + new)
-    return None
+        return _forward(z * y), complex(z), complex(y)
+
+    return _settle(step, complex(gamma_start), 1e-11, 120)
 
 
 def spectral_impedance(
