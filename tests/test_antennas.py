@@ -195,6 +195,14 @@ def test_direction_geometry_is_never_stale():
     fresh = bev.gain_linear(1.83e6, az.copy() + 0.0, el.copy())
     np.testing.assert_array_equal(g2, fresh)
     assert not np.allclose(g1, g2)
+    # The cache's key samples a set's values; a change between the sampled ones is caught by the full comparison.
+    big_az, big_el = np.meshgrid(np.radians(np.arange(0.0, 360.0, 2.0)), np.radians(np.arange(1.0, 90.0, 2.0)))
+    big_az, big_el = big_az.ravel(), big_el.ravel()
+    one = direction_geometry(big_az, big_el)
+    other_el = big_el.copy()
+    other_el[1001] = 0.25  # not among the sampled values (every 126th)
+    two = direction_geometry(big_az, other_el)
+    assert two is not one and 0.25 in two.el_u and 0.25 not in one.el_u
 
 
 def test_library_edges_are_refused_naming_the_argument():

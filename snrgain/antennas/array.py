@@ -381,6 +381,23 @@ class Array(Antenna):
         return np.eye(len(self.elements))
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        if (
+            not self.composite
+            and len({e.params.model_dump_json(exclude={"position", "name"}) for e in self.elements}) == 1
+        ):
+            # Identical elements (the usual array): one element's response r times the amplitudes' sum of the
+            # positions' phases, sum_i a_i r e^{j k p_i.d} = r sum_i a_i e^{j k p_i.d} (element_amplitudes: the
+            # weights over the combiner's norm, and for elements fed by lines their coupled currents), without
+            # forming each element's product.
+            az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+            k = 2 * np.pi * freq_hz / C_M_PER_S
+            geo = direction_geometry(az, el)
+            east, north = geo.ce * geo.sin_az, geo.ce * geo.cos_az
+            factor = np.zeros(az.shape, dtype=complex)
+            for a, pos in zip(self.element_amplitudes(freq_hz), self.positions):
+                factor += a * np.exp(1j * k * (east * pos[0] + north * pos[1]))
+            ev, eh = self.elements[0].complex_response(freq_hz, az, el)
+            return ev * factor, (eh * factor if np.any(eh) else np.zeros_like(factor))
         w = self.weights_at(freq_hz)
         rv, rh = self.element_responses(freq_hz, azimuth_rad, elevation_rad)
         norm = float(np.real(w.conj() @ self.norm_matrix(freq_hz) @ w))

@@ -44,11 +44,18 @@ _GEOMETRY: OrderedDict = OrderedDict()
 _GEOMETRY_SLOTS = 8
 
 
+def _fingerprint(a: np.ndarray) -> bytes:
+    """A cheap key for a direction array: about 64 of its values spread over it (hashing the whole array cost more
+    than a vertical's pattern).  Two sets that share it are told apart by the full comparison on a hit."""
+    flat = a.reshape(-1)
+    return flat[:: max(1, flat.size // 64)].tobytes()
+
+
 def direction_geometry(az: np.ndarray, el: np.ndarray) -> Geometry:
     """The geometry of a direction set, kept for the last few sets (a pattern grid or a sky is asked for again
     and again, by every antenna and every design of a sweep).  A hit is checked against the stored copies, so an
     array changed in place is never mistaken for the one it was."""
-    key = (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    key = (az.shape, _fingerprint(az), _fingerprint(el))
     hit = _GEOMETRY.get(key)
     if hit is not None and np.array_equal(hit.az, az) and np.array_equal(hit.el, el):
         _GEOMETRY.move_to_end(key)

@@ -32,6 +32,7 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
+from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
@@ -92,22 +93,25 @@ class SmallLoop(Antenna):
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
-        el_c = np.clip(el, 0.0, np.pi / 2)
+        geo = direction_geometry(az, el)
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        s = np.sin(el_c)
-        r_v, r_h = reflection_coefficients(self.ground, el_c, freq_hz)
+        # What depends on the elevation alone is worked on the distinct elevations, then spread.
+        s = geo.s_u
+        r_v, r_h = reflection_coefficients(self.ground, geo.el_u, freq_hz)
         up = np.exp(1j * k * self.params.height * s)
         down = np.conj(up)
-        dphi = az - self.params.bearing
-        h_v = -np.cos(dphi) * (up + r_v * down)
-        h_h = s * np.sin(dphi) * (-up + r_h * down)
+        cb, sb = np.cos(self.params.bearing), np.sin(self.params.bearing)
+        cos_dphi = geo.cos_az * cb + geo.sin_az * sb  # cos(az - bearing)
+        sin_dphi = geo.sin_az * cb - geo.cos_az * sb
         r_rad, r_loss = self.input_resistance_ohm(freq_hz)
         omega = 2 * np.pi * freq_hz
         scale = (omega * MU0_H_PER_M * self.area_m2 * self.params.turns) ** 2 / (4 * ETA0_OHM * (r_rad + r_loss))
         lam = C_M_PER_S / freq_hz
         # A_e = scale |h_n|^2 (h_n = eta0 H_n for unit incident E); gain = 4 pi A_e / lambda^2.
         amp = np.sqrt(4 * np.pi * scale / lam**2)
-        return tuple(np.where(above_horizon(el), amp * hn, 0.0) for hn in (h_v, h_h))
+        h_v = cos_dphi * (-amp * (up + r_v * down))[geo.inv]
+        h_h = sin_dphi * (amp * s * (r_h * down - up))[geo.inv]
+        return tuple(np.where(above_horizon(el), hn, 0.0) for hn in (h_v, h_h))
 
     def transmit_segments(self, freq_hz: float):
         """The loop's current on segments (the hook :func:`snrgain.model.placed.received_amplitudes` reads a near

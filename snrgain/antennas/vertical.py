@@ -36,12 +36,13 @@ noise alike, so it changes SNR only where receiver noise matters.
 
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Literal
 
 import numpy as np
 
 from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, register
-from snrgain.antennas.geometry import distinct
+from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import GroundField, make_ground, quantity
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 from snrgain.physics.quadrature import gauss_legendre
@@ -97,17 +98,10 @@ class Vertical(Antenna):
         return direct + r_v * reflected
 
     def _power_terms(self, freq_hz):
-        """(P_rad over perfect ground per unit current [W], |I_base|^2)."""
+        """(P_rad over perfect ground per unit current [W], |I_base|^2): the same for every vertical of this height
+        and top loading (kept per kind, like a wire's line constants)."""
         if freq_hz not in self._cache:
-            k = 2 * np.pi * freq_hz / C_M_PER_S
-            x, w = gauss_legendre(_NPSI)
-            psi = 0.25 * np.pi * (x + 1.0)
-            wpsi = 0.25 * np.pi * w
-            f_pg = self._form_factor(k, np.sin(psi), np.ones_like(psi))
-            u = ETA0_OHM * k**2 / (32 * np.pi**2) * np.cos(psi) ** 2 * np.abs(f_pg) ** 2
-            p_rad = 2 * np.pi * float(np.sum(u * np.cos(psi) * wpsi))
-            i_base_sq = float(np.sin(k * (self.height_m + self.top_m)) ** 2)
-            self._cache[freq_hz] = (p_rad, i_base_sq)
+            self._cache[freq_hz] = _power_terms(float(self.height_m), float(self.top_m), float(freq_hz))
         return self._cache[freq_hz]
 
     def radiation_resistance_ohm(self, freq_hz: float) -> float:
@@ -120,18 +114,24 @@ class Vertical(Antenna):
         p_rad, i_sq = self._power_terms(freq_hz)
         return p_rad / (p_rad + 0.5 * i_sq * self.ground_loss_ohm)
 
-    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+    def _distinct_response(self, freq_hz, azimuth_rad, elevation_rad):
+        """(the vertical response on the distinct elevations, their index per direction, the above-horizon mask):
+        the pattern depends on the elevation alone, so it is worked on the distinct elevations (kept per direction
+        set by direction_geometry) and spread."""
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        # The pattern depends on the elevation alone: work on the distinct elevations, then spread.
-        psi, inv = distinct(np.clip(el, 0.0, np.pi / 2))
-        r_v, _ = reflection_coefficients(self.ground, psi, freq_hz)
-        f = self._form_factor(k, np.sin(psi), r_v)
+        geo = direction_geometry(az, el)
+        r_v, _ = reflection_coefficients(self.ground, geo.el_u, freq_hz)
+        f = self._form_factor(k, geo.s_u, r_v)
         p_rad, i_sq = self._power_terms(freq_hz)
         # |e|^2 = 4 pi U / P_in with U = eta0 k^2 / (32 pi^2) cos^2(psi) |F|^2.
         scale = np.sqrt(4 * np.pi * ETA0_OHM * k**2 / (32 * np.pi**2) / (p_rad + 0.5 * i_sq * self.ground_loss_ohm))
-        ev = np.where(above_horizon(el), (scale * np.cos(psi) * f)[inv.reshape(el.shape)], 0.0)
+        return scale * geo.c_u * f, geo.inv, above_horizon(el)
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
+        ev = np.where(up, e[inv], 0.0)
         return ev, np.zeros_like(ev)
 
     def transmit_segments(self, freq_hz: float):
@@ -151,9 +151,12 @@ class Vertical(Antenna):
         dirs[:, 2] = 1.0
         return pts, dirs, (scale * 0.5 * self.height_m) * w * np.sin(k * (self.height_m + self.top_m - z)) + 0j
 
+    def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
+        e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
+        return np.where(up, (e.real * e.real + e.imag * e.imag)[inv], 0.0)
+
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
-        ev, _ = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
-        gv = np.abs(ev) ** 2
+        gv = self.gain_linear(freq_hz, azimuth_rad, elevation_rad)
         return gv, np.zeros_like(gv)
 
     def describe(self):
@@ -164,3 +167,21 @@ class Vertical(Antenna):
             "top_loading_m": self.top_m,
             "ground": "perfect" if self.ground is None else self.ground.name,
         }
+
+
+@lru_cache(maxsize=64)
+def _power_terms(height_m: float, top_m: float, freq_hz: float) -> tuple[float, float]:
+    """(P_rad over perfect ground per unit current [W], |I_base|^2) of a vertical: the radiated power integral of
+    its current over the upper half-space."""
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    zq, wq = gauss_legendre(_NZ)
+    z, wz = 0.5 * height_m * (zq + 1.0), 0.5 * height_m * wq
+    x, w = gauss_legendre(_NPSI)
+    psi = 0.25 * np.pi * (x + 1.0)
+    wpsi = 0.25 * np.pi * w
+    current = np.sin(k * (height_m + top_m - z)) * wz
+    phase = np.exp(1j * k * np.multiply.outer(np.sin(psi), z))
+    f_pg = phase @ current + np.conj(phase) @ current
+    u = ETA0_OHM * k**2 / (32 * np.pi**2) * np.cos(psi) ** 2 * np.abs(f_pg) ** 2
+    p_rad = 2 * np.pi * float(np.sum(u * np.cos(psi) * wpsi))
+    return p_rad, float(np.sin(k * (height_m + top_m)) ** 2)
