@@ -107,6 +107,52 @@ def beverage_floor(ant, struct):
     return run
 
 
+def terminated_loop_floor(ant, struct):
+    """The terminated loop (snrgain.antennas.termloop): the loop's top and bottom as a line driven by the field
+    difference between their heights, and its sides' EMFs, magnetic part whole and electric part scaled."""
+    el_u, inv, cos_az, sin_az = struct
+    line = ant.line(F)
+    g, z0, width = line.gamma, line.z0, ant.width_m
+    term = ant.termination_ohm(F)
+    load = ant._load_ohm(F, term)
+    share = ant.electric_share(F)
+    k = 2 * np.pi * F / C
+    eps = _eps(ant.ground, F)
+    b = ant.line_bearing_rad
+    cb, sb = np.cos(b), np.sin(b)
+    e2, eg = np.exp(-2 * g * width), np.exp(-g * width)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    den = z0 * (load + term) * ch + (z0 * z0 + load * term) * sh
+    near, far = (z0 * ch + term * sh) / den, z0 * eg / den
+    scale2 = 4 * np.pi / LAM**2 * load * ETA0
+    s_u, c_u = np.sin(el_u), np.cos(el_u)
+    z_top, z_bot = ant.z_top, ant.z_bottom
+
+    def run():
+        r_v, r_h = _fresnel(eps, s_u, c_u)
+        up_t, up_b = np.exp(1j * k * z_top * s_u), np.exp(1j * k * z_bot * s_u)
+        d_v = s_u * ((up_t - up_b) - r_v * (up_t.conj() - up_b.conj()))
+        d_h = (up_t - up_b) + r_h * (up_t.conj() - up_b.conj())
+        seg = (up_t - up_b) / (1j * k * s_u)
+        side = c_u * (seg + r_v * seg.conj())
+        cd = cos_az * cb + sin_az * sb
+        sd = sin_az * cb - cos_az * sb
+        along = c_u[inv] * cd
+        phase = np.exp((1j * k * width) * along)
+        jkc = 1j * k * along
+        decay = phase * eg
+        q = (0.5 * (z0 + term) / den) * ((decay - 1.0) / (jkc - g)) + (0.5 * (z0 - term) / den) * (
+            (decay - e2) / (jkc + g)
+        )
+        sd_u = side[inv]
+        mag, ele = 0.5 * sd_u * (1.0 - phase), (0.5 * share) * sd_u * (1.0 + phase)
+        i_v = -cd * d_v[inv] * q + (mag + ele) * near + (mag - ele) * far
+        i_h = -sd * d_h[inv] * q
+        return scale2 * (i_v.real**2 + i_v.imag**2 + i_h.real**2 + i_h.imag**2)
+
+    return run
+
+
 def _vertical_constants(ant):
     k = 2 * np.pi * F / C
     p_rad, i_sq = ant._power_terms(F)
@@ -195,6 +241,10 @@ CASES = {
     "beverage 250 m": (
         lambda: from_si("beverage", length=250.0, height=2.5, ground=GROUND, termination=500.0),
         beverage_floor,
+    ),
+    "terminated loop 8 x 4 m": (
+        lambda: from_si("terminated-loop", width=8.0, loop_height=4.0, height=1.5, ground=GROUND, termination=900.0),
+        terminated_loop_floor,
     ),
     "vertical quarter wave": (lambda: from_si("vertical", height=QUARTER, ground=GROUND), vertical_floor),
     "small loop 2 x 2 m": (

@@ -86,16 +86,14 @@ class SmallLoop(Antenna):
         r_loss = 2 * (p.width + p.loop_height) * n * np.real(lines.wire_internal_impedance(freq_hz, a))
         return float(r_rad), float(r_loss)
 
-    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
-        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
-        return np.abs(ev) ** 2, np.abs(eh) ** 2
-
-    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+    def _parts(self, freq_hz, azimuth_rad, elevation_rad):
+        """(cos and sin of the azimuth off the loop's plane, the vertical and horizontal responses' elevation parts
+        on the distinct elevations, their index per direction, the above-horizon mask): h_v = cos(dphi) a_v(el),
+        h_h = sin(dphi) a_h(el)."""
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         geo = direction_geometry(az, el)
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        # What depends on the elevation alone is worked on the distinct elevations, then spread.
         s = geo.s_u
         r_v, r_h = reflection_coefficients(self.ground, geo.el_u, freq_hz)
         up = np.exp(1j * k * self.params.height * s)
@@ -109,9 +107,18 @@ class SmallLoop(Antenna):
         lam = C_M_PER_S / freq_hz
         # A_e = scale |h_n|^2 (h_n = eta0 H_n for unit incident E); gain = 4 pi A_e / lambda^2.
         amp = np.sqrt(4 * np.pi * scale / lam**2)
-        h_v = cos_dphi * (-amp * (up + r_v * down))[geo.inv]
-        h_h = sin_dphi * (amp * s * (r_h * down - up))[geo.inv]
-        return tuple(np.where(above_horizon(el), hn, 0.0) for hn in (h_v, h_h))
+        a_v, a_h = -amp * (up + r_v * down), amp * s * (r_h * down - up)
+        return cos_dphi, sin_dphi, a_v, a_h, geo.inv, above_horizon(el)
+
+    def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
+        cos_dphi, sin_dphi, a_v, a_h, inv, up = self._parts(freq_hz, azimuth_rad, elevation_rad)
+        return np.where(up, cos_dphi * a_v[inv], 0.0), np.where(up, sin_dphi * a_h[inv], 0.0)
+
+    def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        # |cos(dphi) a_v|^2 = cos^2(dphi) |a_v|^2: powers on the distinct elevations, real arithmetic per direction
+        cos_dphi, sin_dphi, a_v, a_h, inv, up = self._parts(freq_hz, azimuth_rad, elevation_rad)
+        p_v, p_h = (a_v.real**2 + a_v.imag**2)[inv], (a_h.real**2 + a_h.imag**2)[inv]
+        return np.where(up, cos_dphi * cos_dphi * p_v, 0.0), np.where(up, sin_dphi * sin_dphi * p_h, 0.0)
 
     def transmit_segments(self, freq_hz: float):
         """The loop's current on segments (the hook :func:`snrgain.model.placed.received_amplitudes` reads a near

@@ -56,6 +56,7 @@ Users can override velocity factor, attenuation and Z0 with measured values
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -153,7 +154,13 @@ def penetration_depth(freq_hz, ground: Ground | None) -> complex:
 
 
 def wire_internal_impedance(freq_hz, radius_m, conductivity_s_per_m=COPPER_S_PER_M) -> complex:
-    """Internal impedance per metre of a round wire with skin effect [ohm/m] (exact Bessel form)."""
+    """Internal impedance per metre of a round wire with skin effect [ohm/m] (exact Bessel form); kept per wire
+    and frequency."""
+    return _internal_impedance(float(freq_hz), float(radius_m), float(conductivity_s_per_m))
+
+
+@lru_cache(maxsize=256)
+def _internal_impedance(freq_hz: float, radius_m: float, conductivity_s_per_m: float) -> complex:
     omega = 2 * np.pi * freq_hz
     delta = np.sqrt(2.0 / (omega * MU0_H_PER_M * conductivity_s_per_m))
     k = (1 - 1j) / delta
