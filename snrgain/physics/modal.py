@@ -73,8 +73,15 @@ def _cquad(f, a, b) -> complex:
     return complex(re, im)
 
 
-def _pair(parts, edges, adaptive: bool) -> tuple[complex, complex]:
-    """The integrals of the two integrands ``parts(lam) -> (f1, f2)`` over [edges[0], edges[-1]]: 160-point
+FINE_NODES = 160
+"""Gauss-Legendre points per piece of the earth integrals: the rule every mode is settled and checked with."""
+COARSE_NODES = 32
+"""Points per piece while the secant closes in (1e-15 of the fine rule over lossy ground; only a nearly lossless
+earth, its branch point near the real axis, needs more, and the fine rule then finishes the search)."""
+
+
+def _pair(parts, edges, adaptive: bool, nodes: int = FINE_NODES) -> tuple[complex, complex]:
+    """The integrals of the two integrands ``parts(lam) -> (f1, f2)`` over [edges[0], edges[-1]]: ``nodes``-point
     Gauss-Legendre on each piece between edges, all pieces evaluated in one pass (each node's square roots
     computed once for both); ``adaptive`` uses scipy's adaptive quadrature piece by piece instead."""
     pieces = [(a, b) for a, b in zip(edges[:-1], edges[1:]) if b > a]
@@ -82,7 +89,7 @@ def _pair(parts, edges, adaptive: bool) -> tuple[complex, complex]:
         one = sum(_cquad(lambda t: parts(t)[0], a, b) for a, b in pieces)
         two = sum(_cquad(lambda t: parts(t)[1], a, b) for a, b in pieces)
         return complex(one), complex(two)
-    x, w = gauss_legendre(160)
+    x, w = gauss_legendre(nodes)
     lo = np.array([a for a, _ in pieces])[:, None]
     half = 0.5 * (np.array([b for _, b in pieces])[:, None] - lo)
     t = (half * (x + 1.0) + lo).ravel()
@@ -101,7 +108,14 @@ def _pieces(marks, top):
 
 
 def earth_integrals(
-    gamma: complex, freq_hz: float, height_m: float, n2: complex, *, offset_m: float = 0.0, adaptive: bool = False
+    gamma: complex,
+    freq_hz: float,
+    height_m: float,
+    n2: complex,
+    *,
+    offset_m: float = 0.0,
+    adaptive: bool = False,
+    nodes: int = FINE_NODES,
 ) -> tuple[complex, complex]:
     """(P, Q) of the module docstring for a propagation constant ``gamma`` [1/m], the field taken ``offset_m``
     to the side of the axis (the wire's outer surface; cos(lambda offset) in the integrands): Gauss-Legendre on
@@ -125,7 +139,7 @@ def earth_integrals(
     # turns from kappa0 to lambda), the earth's |k1|, and 1 / 2h.
     top = 20.0 / h
     edges = _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / h), top)
-    total_p, total_q = _pair(parts, edges, adaptive)
+    total_p, total_q = _pair(parts, edges, adaptive, nodes)
     return total_p, 2 * total_p - 2 * total_q / k0**2
 
 
@@ -146,20 +160,14 @@ def _forward(zy: complex) -> complex:
     return -new if new.imag < 0 else new
 
 
-def _settle(step, start: complex, tol: float, plain_steps: int):
-    """The root of gamma = g(gamma), ``step(gamma) -> (g(gamma), Z', Y')``: (g, Z', Y') at the first gamma with
-    |g(gamma) - gamma| < tol |gamma|, or None where the plain iteration does not settle.
-
-    The secant method on F(gamma) = g(gamma) - gamma (complex-analytic) converges in 4-6 evaluations where the
-    plain iteration gamma <- g(gamma) takes 8-30 (its contraction rate |g'| is 0.05-0.4 on the wires the tool
-    models).  The secant's root is taken only where the plain iteration settles there too (|g'| < 1 at the root,
-    from the secant's own slope); otherwise, or where the secant does not settle, the plain iteration decides as
-    it always did: damped after 20 steps, None after ``plain_steps``."""
+def _secant(step, start: complex, tol: float):
+    """(root's (g, Z', Y'), slope of F at it) of the secant method on F(gamma) = g(gamma) - gamma from ``start``
+    (the first point's step gives the second); (None, None) where it does not settle in 30 steps."""
     g0 = start
     n0, z0, y0 = step(g0)
     f0 = n0 - g0
     if abs(f0) < tol * abs(g0):
-        return n0, z0, y0
+        return (n0, z0, y0), None
     g1 = n0
     for _ in range(30):
         n1, z1, y1 = step(g1)
@@ -168,13 +176,33 @@ def _settle(step, start: complex, tol: float, plain_steps: int):
             break
         slope = (f1 - f0) / (g1 - g0)
         if abs(f1) < tol * abs(g1):
-            if abs(slope + 1.0) < 1.0:
-                return n1, z1, y1
-            break
+            return (n1, z1, y1), slope
         g0, f0, g1 = g1, f1, g1 - f1 / slope
+    return None, None
+
+
+def _settle(step, start: complex, tol: float, plain_steps: int):
+    """The root of gamma = g(gamma), ``step(gamma, nodes) -> (g(gamma), Z', Y')`` with the earth integrals on
+    ``nodes`` points a piece: (g, Z', Y') at the first gamma with |g(gamma) - gamma| < tol |gamma| under the fine
+    rule (FINE_NODES), or None where the plain iteration does not settle.
+
+    The secant method on F(gamma) = g(gamma) - gamma (complex-analytic) converges in 4-6 evaluations where the
+    plain iteration gamma <- g(gamma) takes 8-30 (its contraction rate |g'| is 0.05-0.4 on the wires the tool
+    models).  It closes in with the coarse rule (COARSE_NODES) and finishes with the fine one from there: one
+    fine evaluation confirms a root the coarse rule found to 1e-15, a few more move it where the rules differ.
+    The root is taken only where the plain iteration settles there too (|g'| < 1 at the root, from the secant's
+    slope); otherwise, or where the secant does not settle, the plain iteration on the fine rule decides as it
+    always did: damped after 20 steps, None after ``plain_steps``."""
+    coarse, slope = _secant(lambda g: step(g, COARSE_NODES), start, tol)
+    if coarse is not None and (slope is None or abs(slope + 1.0) < 1.0):
+        fine, fine_slope = _secant(lambda g: step(g, FINE_NODES), coarse[0], tol)
+        if fine is not None:
+            rate = slope if fine_slope is None else fine_slope
+            if rate is None or abs(rate + 1.0) < 1.0:
+                return fine
     gamma = start
     for k in range(plain_steps):
-        new, z, y = step(gamma)
+        new, z, y = step(gamma, FINE_NODES)
         if abs(new - gamma) < tol * abs(gamma):
             return new, z, y
         gamma = new if k < 20 else 0.5 * (gamma + new)  # damped after 20 steps
@@ -212,8 +240,8 @@ def wire_over_earth(
     layer = 0.0 if insulation_radius_m is None else float(np.log(b / radius_m))
     rho = b if b > radius_m else 0.0
 
-    def step(gamma):
-        p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho)
+    def step(gamma, nodes):
+        p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho, nodes=nodes)
         lam = _image_term(gamma, k0, b, height_m)
         z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + layer + 2 * p)
         y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + layer / insulation_permittivity + q)
@@ -222,7 +250,9 @@ def wire_over_earth(
     return _settle(step, complex(gamma_start), 1e-12, 80)
 
 
-def buried_integrals(gamma: complex, freq_hz: float, depth_m: float, n2: complex, *, offset_m: float, adaptive=False):
+def buried_integrals(
+    gamma: complex, freq_hz: float, depth_m: float, n2: complex, *, offset_m: float, adaptive=False, nodes=FINE_NODES
+):
     """(R_h, R_e) for a wire at ``depth_m`` in the earth under the air, the field taken ``offset_m`` to the side:
 
         R_h = int_0^inf G_h exp(-2 u1 d) cos(lambda b) / u1 dlambda,
@@ -245,7 +275,7 @@ def buried_integrals(gamma: complex, freq_hz: float, depth_m: float, n2: complex
         return g_h * common / u1, (u1 * g_e + k1sq * g_h / u1) * common / (lam * lam - gamma**2) / n2
 
     top = 20.0 / d
-    return _pair(parts, _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(kap1)), 0.5 / d), top), adaptive)
+    return _pair(parts, _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(kap1)), 0.5 / d), top), adaptive, nodes)
 
 
 @lru_cache(maxsize=256)
@@ -282,10 +312,10 @@ def wire_in_earth(
     b = insulation_radius_m
     layer = float(np.log(b / radius_m))
 
-    def step(gamma):
+    def step(gamma, nodes):
         kap1 = _sqrt_re(-(gamma**2 + n2 * k0**2))
         k0b = bessel_k0(kap1 * b)
-        r_h, r_e = buried_integrals(gamma, freq_hz, depth_m, n2, offset_m=b)
+        r_h, r_e = buried_integrals(gamma, freq_hz, depth_m, n2, offset_m=b, nodes=nodes)
         z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (layer + k0b + r_h)
         y = 2j * np.pi * omega * EPS0_F_PER_M / (layer / insulation_permittivity + k0b / n2 + r_e)
         return _forward(z * y), complex(z), complex(y)
