@@ -11,6 +11,8 @@ Reports
 - a fresh antenna plus its pattern on a 2 deg grid (8,280 directions) against PyNEC's NEC-2 solution and
   pattern of the same structure, for every family with an NEC counterpart (target: the 250 m Beverage
   at least 150x faster);
+- each family's pattern kernel against a minimal numpy version of the same formula (benchmarks/kernels.py;
+  target: within 1.5x; `python benchmarks/kernels.py --load` adds a four-square against PyNEC with one core busy);
 - sweeps: 1,000 RDF designs, and a 10,000-design Beverage sweep through `snrgain sweep` in one process and on a
   Dask LocalCluster of two workers (the same table from both);
 - a realistic site (benchmarks/realistic-site.toml: 3 targets, 4 months x 14 hours, P.372 atmospheric noise
@@ -670,12 +672,16 @@ def realistic_site():
 
 
 if __name__ == "__main__":
+    sys.path.insert(0, str(REPO / "benchmarks"))
+    import kernels  # each family's kernel against its numpy floor (benchmarks/kernels.py; --load there for PyNEC)
+
     from snrgain.allocator import tune
 
     tune()  # as the command line does
     if "--site" in sys.argv[1:]:
         realistic_site()
         nec_ratios()
+        kernels.report(load=False)
     elif "--bands" in sys.argv[1:]:
         bands_benchmark()
     elif "--sweep" in sys.argv[1:]:
@@ -685,5 +691,6 @@ if __name__ == "__main__":
         main()
         realistic_site()
         nec_ratios()
+        kernels.report(load=False)
         sweep_benchmarks()
         bands_benchmark()
