@@ -72,9 +72,9 @@ import numpy as np
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
 from snrgain.antennas.longwire import (
     SkyTermination,
+    _line_integrals,
     best_resistor,
     field_along_wire,
-    line_currents,
     plane_wave,
     port_response,
     termination_figure,
@@ -382,30 +382,23 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         side = vertical_emf(w, self.z_bottom, self.z_top)[w.inv]  # each side, bottom to top of the rectangle
         load = self._load_ohm(freq_hz, termination_ohm)
         line = self.line(freq_hz)
-        i_f, _ = line_currents(
-            w,
-            line=line,
-            length_m=self.width_m,
-            z_feed=load,
-            z_far=termination_ohm,
-            drive_v=-w.cos_dphi * (top_v - bottom_v)[w.inv],
-            drive_h=-w.sin_dphi * (top_h - bottom_h)[w.inv],
-            v_end=0.0,
-        )
-        # The sides' EMFs, up at the feed side and (with the wave's phase along the width) at the far side: their
-        # difference is the loop's magnetic response, kept whole; their common part, the electric response, is
-        # scaled by the charge moment's height over the spacing.
+        g, z0, length, r = line.gamma, line.z0, self.width_m, termination_ohm
+        # The line's currents (longwire.line_currents with no lumped EMF at its ends), the line's integrals formed
+        # once for them and for the far side's phase below.
+        _, _, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, length)
+        denom = z0 * (load + r) * ch + (z0**2 + load * r) * sh
+        q = (0.5 * (z0 + r) / denom) * j_plus + (0.5 * (z0 - r) / denom) * j_minus
+        # The sides' EMFs, up at the feed side and (with the wave's phase along the width, e^{jkcL}) at the far
+        # side: their difference is the loop's magnetic response, kept whole; their common part, the electric
+        # response, is scaled by the charge moment's height over the spacing.
         e_feed = side
-        e_far = side * np.exp((1j * w.k * self.width_m) * w.along)
+        e_far = side * phase_l
         share = self.electric_share(freq_hz)
         mag, ele = 0.5 * (e_feed - e_far), 0.5 * share * (e_feed + e_far)
-        g, z0, length = line.gamma, line.z0, self.width_m
-        e2, eg = np.exp(-2 * g * length), np.exp(-g * length)
-        ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-        denom = z0 * (load + termination_ohm) * ch + (z0**2 + load * termination_ohm) * sh
-        ends = (mag + ele) * ((z0 * ch + termination_ohm * sh) / denom) + (mag - ele) * (z0 * eg / denom)
-        i_f = (i_f[0] + ends, i_f[1])
-        return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in i_f)
+        ends = (mag + ele) * ((z0 * ch + r * sh) / denom) + (mag - ele) * (z0 * eg / denom)
+        i_v = -w.cos_dphi * (top_v - bottom_v)[w.inv] * q + ends
+        i_h = -w.sin_dphi * (top_h - bottom_h)[w.inv] * q
+        return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in (i_v, i_h))
 
     def transmit_segments(self, freq_hz: float):
         """The currents the line model gives the loop, on segments (the hook
@@ -458,14 +451,18 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
 
     def _gain(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm):
         ev, eh = self._response(freq_hz, azimuth_rad, elevation_rad, termination_ohm)
-        return np.abs(ev) ** 2 + np.abs(eh) ** 2
+        return ev.real**2 + ev.imag**2 + eh.real**2 + eh.imag**2
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         return self._response(freq_hz, azimuth_rad, elevation_rad, self.termination_ohm(freq_hz))
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
-        return np.abs(ev) ** 2, np.abs(eh) ** 2
+        return ev.real**2 + ev.imag**2, eh.real**2 + eh.imag**2
+
+    def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
+        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
+        return ev.real**2 + ev.imag**2 + eh.real**2 + eh.imag**2
 
     def describe(self):
         p = self.params
