@@ -365,6 +365,9 @@ def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--load", action="store_true", help="keep one core busy in a second process while timing")
     args = ap.parse_args(argv)
+    from snrgain.allocator import tune
+
+    tune()  # freed memory kept for the next array, as the command line does
     if not args.load:
         report(False)
         return

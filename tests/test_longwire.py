@@ -498,3 +498,26 @@ def test_junction_stub_reproduced_by_nec2c():
         z.append(float(row[6]))
     assert z[0] == pytest.approx(DEEMB["cases"][0]["junction_ohm"], abs=0.5)
     assert z[1] > 2 * z[0]  # the artefact grows as the bottom segment shortens (2 m -> 0.67 m)
+
+
+@pytest.mark.parametrize(
+    "spec",
+    [
+        {"family": "beverage", "length": "250 m", "height": "2.5 m", "ground": "moist loam", "termination": "500 ohm"},
+        {"family": "beverage", "length": "180 m", "height": "1 m", "ground": "very dry ground", "bearing": 30},
+        {"family": "two-wire", "length": "250 m", "height": "2.5 m", "ground": "moist loam", "port": "reverse"},
+    ],
+    ids=["beverage", "auto", "two-wire-reverse"],
+)
+def test_gains_from_the_forms_are_the_responses_powers(spec):
+    # partial_gains of a terminated wire come straight from its response forms (A + Z B) without forming the
+    # complex responses; they must be |complex_response|^2, 0 below the horizon.
+    a = from_spec(spec)
+    az, el = np.meshgrid(np.radians(np.arange(0.0, 360.0, 7.5)), np.radians(np.arange(-6.0, 90.0, 4.0)))
+    ev, eh = a.complex_response(1.83e6, az, el)
+    gv, gh = a.partial_gains(1.83e6, az, el)
+    assert gv.shape == az.shape
+    np.testing.assert_allclose(gv, np.abs(ev) ** 2, rtol=1e-12, atol=0)
+    np.testing.assert_allclose(gh, np.abs(eh) ** 2, rtol=1e-12, atol=0)
+    assert np.all(gv[el < 0] == 0) and np.all(gh[el < 0] == 0)
+    np.testing.assert_allclose(a.gain_linear(1.83e6, az, el), gv + gh, rtol=1e-15)

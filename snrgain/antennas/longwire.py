@@ -704,19 +704,46 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
                 drive_h=-w.sin_dphi * f_h[w.inv],
                 v_end=lead,
             )
-            return (*forms[:2], w.el)
+            return (*forms[:2], w.el, geo)
 
-        key = (self._form_key, float(freq_hz), az.shape, az.tobytes(), el.tobytes())
-        return _FORMS.get(key, make)
+        # The direction set by its geometry object (direction_geometry keeps one per set, checked value for value):
+        # the kept forms hold it, so no other object can take its id while the key is kept.
+        geo = direction_geometry(az, el)
+        key = (self._form_key, float(freq_hz), id(geo))
+        return _FORMS.get(key, make)[:3]
+
+    def _form_powers(self, freq_hz, azimuth_rad, elevation_rad):
+        """(|I_v|^2, |I_h|^2) scaled to realized gain, from the response forms (a terminated wire whose currents
+        are the line model's), or None: the powers straight from A + Z B, the feed denominator and the port's
+        scale one number, without forming the complex responses."""
+        kind = type(self)
+        if (
+            not self.terminated
+            or kind.currents is not LongWire.currents
+            or kind.complex_response is not LongWire.complex_response
+        ):
+            return None
+        load = self.receiver_load_ohm(freq_hz)
+        z_far = self.far_load_ohm(freq_hz)
+        (av, bv), (ah, bh), el = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
+        d0, d1 = line_denominator(self.line(freq_hz), self.length_m, load + self.feed_rod_ohm)
+        lam = C_M_PER_S / freq_hz
+        scale2 = 4 * np.pi / lam**2 * load * ETA0_OHM / _power(d0 + z_far * d1)
+        shape = np.broadcast_shapes(np.shape(azimuth_rad), np.shape(elevation_rad))
+        up = above_horizon(el)
+        return tuple(np.where(up, scale2 * _power(a + z_far * b), 0.0).reshape(shape) for a, b in ((av, bv), (ah, bh)))
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""
+        powers = self._form_powers(freq_hz, azimuth_rad, elevation_rad)
+        if powers is not None:
+            return powers
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
         return _power(ev), _power(eh)
 
     def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
-        ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
-        return _power(ev) + _power(eh)
+        gv, gh = self.partial_gains(freq_hz, azimuth_rad, elevation_rad)
+        return gv + gh
 
     def matched_partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Partial gains with a conjugate-matched receiver (realized gain over the mismatch factor)."""

@@ -153,7 +153,8 @@ class Vertical(Antenna):
 
     def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
         e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
-        return np.where(up, (e.real * e.real + e.imag * e.imag)[inv], 0.0)
+        p = (e.real * e.real + e.imag * e.imag)[inv]
+        return p if up.all() else np.where(up, p, 0.0)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         gv = self.gain_linear(freq_hz, azimuth_rad, elevation_rad)
