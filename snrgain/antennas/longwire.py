@@ -357,10 +357,12 @@ class PlaneWave:
     along: np.ndarray
 
 
-def plane_wave(freq_hz: float, azimuth_rad, elevation_rad, *, bearing_rad: float, ground) -> PlaneWave:
-    """The incident-wave quantities every line-model family needs (see :class:`PlaneWave`)."""
+def plane_wave(freq_hz: float, azimuth_rad, elevation_rad, *, bearing_rad: float, ground, geo=None) -> PlaneWave:
+    """The incident-wave quantities every line-model family needs (see :class:`PlaneWave`); ``geo`` the directions'
+    :func:`direction_geometry` where the caller has it already."""
     az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
-    geo = direction_geometry(az, el)
+    if geo is None:
+        geo = direction_geometry(az, el)
     r_v, r_h = reflection_coefficients(ground, geo.el_u, freq_hz)
     cb, sb = np.cos(bearing_rad), np.sin(bearing_rad)
     cos_dphi = geo.cos_az * cb + geo.sin_az * sb  # cos(az - b)
@@ -692,7 +694,7 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             )
 
         def make():
-            w = plane_wave(freq_hz, az, el, bearing_rad=self.bearing_rad, ground=self.ground)
+            w = plane_wave(freq_hz, az, el, bearing_rad=self.bearing_rad, ground=self.ground, geo=geo)
             f_v, f_h = field_along_wire(w, self.wire_height_m())
             lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
             forms = feed_current_forms(
