@@ -400,7 +400,7 @@ def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
     return w.c_u * (seg + w.r_v * np.conj(seg))
 
 
-def _line_integrals(w: PlaneWave, g: complex, L: float):
+def line_integrals(w: PlaneWave, g: complex, L: float):
     """The line's integrals of the distributed EMF (module docstring), shared by :func:`line_currents` and
     :func:`feed_current_forms`: (jkc, e^{-2gL}, e^{-gL}, cosh and sinh scaled by e^{-gL}, e^{jkcL}, J+, J-)."""
     jkc = 1j * w.k * w.along
@@ -434,7 +434,7 @@ def feed_current_forms(
     so are the numerators).  Returns ((A_v, B_v), (A_h, B_h), (D0, D1)), for a search over the termination that
     forms the wave once."""
     g, z0, L = line.gamma, line.z0, length_m
-    _, _, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, L)
+    _, _, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, L)
     d0, d1 = line_denominator(line, L, z_feed)
     q0, q1 = 0.5 * z0 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
     e0, e1 = v_end * (z0 * ch - z0 * eg * phase_l), v_end * sh
@@ -462,7 +462,7 @@ def line_currents(
     and serve both polarizations.  Returns ((I_F v, I_F h), (I_R v, I_R h) or None).
     """
     g, z0, L = line.gamma, line.z0, length_m
-    jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, L)
+    jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, L)
     if z_far is None:
         denom = z0 * ch + z_feed * sh
         q = (0.5 / denom) * (j_plus - j_minus)  # i_sinh / denom

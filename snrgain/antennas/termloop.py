@@ -72,9 +72,9 @@ import numpy as np
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, register
 from snrgain.antennas.longwire import (
     SkyTermination,
-    _line_integrals,
     best_resistor,
     field_along_wire,
+    line_integrals,
     plane_wave,
     port_response,
     termination_figure,
@@ -385,7 +385,7 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         g, z0, length, r = line.gamma, line.z0, self.width_m, termination_ohm
         # The line's currents (longwire.line_currents with no lumped EMF at its ends), the line's integrals formed
         # once for them and for the far side's phase below.
-        _, _, eg, ch, sh, phase_l, j_plus, j_minus = _line_integrals(w, g, length)
+        _, _, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, length)
         denom = z0 * (load + r) * ch + (z0**2 + load * r) * sh
         q = (0.5 * (z0 + r) / denom) * j_plus + (0.5 * (z0 - r) / denom) * j_minus
         # The sides' EMFs, up at the feed side and (with the wave's phase along the width, e^{jkcL}) at the far
