@@ -159,20 +159,19 @@ def _point(name, gname, seg, place, d, h):
 
 # Cases the model misses by more than the tolerance, each with its measured error, its cause, and a bound that
 # still catches a change for the worse (not the value itself: a better field model may only move them closer).
-KNOWN_MISSES = {
-    # The flag with a source 10 m up, 10 m behind its middle (5.75 m past the terminated side): measured -3.7 dB
-    # (-3.6 with the closed-form field before the Sommerfeld integrals): the line model's equivalent currents (the
-    # sides' electric share, a far-field equivalent of where the charge sits) miss the near field of a raised source
-    # this close.  Moving the electric share onto the width or onto the charge moment's height made it worse
-    # (-9.9, -10.3 dB).
-    ("flag", "loam", "back", 10.0, 10.0, "vertical"): 4.5,
-    # The quarter-wave reference itself 5 m from a source (against itself 50 m away) missed by -2.5 dB (source 2 m up,
-    # loam), +3.05 and +5.9 dB (horizontal source 4 m up, loam and 1 mS/m) while its current was the sinusoid: the
-    # reciprocity integral was not the cause (82 or 328 quadrature points up the wire gave the same within 0.01 dB),
-    # the current was (NEC's own current, run with 160 segments, through the same integral: -0.05, -0.82, +0.11 dB).
-    # With the wire's solved current (snrgain.antennas.vertical.thin_wire_current, over the soil's image) they read
-    # -0.15, -0.26 and -0.05 dB and are no longer misses; every reference case is within 0.3 dB (0.5 dB with NEC's
-    # finer segmentation).
+KNOWN_MISSES: dict = {
+    # None left.  Former misses and their causes, found by putting NEC-2's own currents (its output's current
+    # table, run with the stored decks) through the model's reciprocity integral with the same field:
+    # - the quarter-wave reference 5 m from a source (against itself 50 m away): -2.5 dB (source 2 m up, loam),
+    #   +3.05 and +5.9 dB (horizontal source 4 m up, loam and 1 mS/m) with the sinusoidal current.  Not the
+    #   quadrature (82 or 328 points up the wire: the same within 0.01 dB) but the current: NEC's (160 segments)
+    #   gave -0.05, -0.82, +0.11 dB through the same integral.  With the wire's solved current
+    #   (snrgain.antennas.vertical.thin_wire_current, over the soil's image): -0.15, -0.26, -0.05 dB;
+    # - the flag with a source 10 m up, 10 m behind its middle: -3.7 dB with the equivalent rectangle's currents
+    #   (NEC's currents: +0.15 dB); with the line carried along the loop's own halves
+    #   (snrgain.antennas.termloop.TerminatedLoop.transmit_segments): -1.14 dB, the rest of that offset the model
+    #   pattern's rear null (read in the source's direction, snrgain.model.placed._through_currents), 1.1 dB deeper
+    #   than these currents give (every rear case reads -0.6 to -1.5 dB; front and side within 0.13 dB).
 }
 
 
@@ -180,13 +179,13 @@ KNOWN_MISSES = {
 def test_near_source_ratio_against_nec(case):
     # Tolerance 2.5 dB (the brief's, up to 200 m) plus NEC's own spread between its two segmentations for the case
     # (the flag's rear null moves by up to 5.8 dB between them at 60 m; elsewhere under 0.6 dB).  Measured, model
-    # over NEC (coarse), with the source's field the exact Sommerfeld integrals (noisemodels.halfspace) and the
-    # verticals' solved currents (snrgain.antennas.vertical.thin_wire_current): the whip within 0.10 dB over loam
-    # and 1 mS/m (source 2-10 m up, horizontal too; 0.31 dB with the sinusoidal current, 1.2-2.0 dB with the
-    # closed-form field); the flag within 2.4 dB but for the known miss; the pair within 0.35 dB but 15 m behind it
-    # with the source 6 m up, -0.8 dB (+1.9 with the sinusoidal current, -8.8 with the closed-form field: its
-    # vertical field near its quasi-static null); the reference itself (against its reading 50 m away) within
-    # 0.3 dB at every distance (3.05 dB at 5 m and 1.7 dB at 10 m with the sinusoidal current).  Through the pattern
+    # over NEC (coarse), with the source's field the exact Sommerfeld integrals (noisemodels.halfspace), the
+    # verticals' solved currents and the flag's line along its own halves: the whip within 0.10 dB over loam and
+    # 1 mS/m (source 2-10 m up, horizontal too; 0.31 dB with the sinusoidal current); the flag within 0.13 dB in
+    # front and to the side, 0.6-1.5 dB low behind it (its pattern's rear null; -3.7 dB 10 m behind, 10 m up with
+    # the equivalent rectangle's currents); the pair within 0.8 dB (15 m behind it with the source 6 m up -0.8 dB,
+    # +1.9 with the sinusoidal current, -8.8 with the closed-form field); the reference itself (against its reading
+    # 50 m away) within 0.3 dB at every distance (3.05 dB at 5 m with the sinusoidal current).  Through the pattern
     # at the antenna's point (the reading before) the same cases missed by up to 7 dB (whip), 31 dB (flag), 64 dB
     # (pair) and 45 dB (the reference at 5 m).
     name, gname, place, d, h, kind = case
@@ -331,22 +330,29 @@ def test_currents_give_each_familys_response(name):
     # are placed at their elements' centroid, so their phase is referred there (the response's to the origin).
     # Tolerance: 1e-9 relative; the small loop 1e-3 (the pattern takes H at the loop's centre, the currents the
     # flux through the whole loop; measured 2.5e-4); verticals without top loading 1e-3 (the pattern is the
-    # sinusoid's, the currents the wire's solved ones: measured 2.3e-4 whip, 5.2e-4 pair-lines, 3.5e-4 four-square;
-    # the top-loaded one keeps the sinusoid, 1e-9).
+    # sinusoid's, the currents the wire's solved ones: measured 2.3e-4 whip, 5.1e-4 pair-lines, 3.5e-4
+    # four-square; the top-loaded one keeps the sinusoid, 1e-9); a flag's currents run along its own halves, not
+    # the equivalent rectangle its pattern is made of: against the pattern's best at that elevation (its rear null
+    # is 1-2 dB shallower along them) 0.03 (measured 0.021 flag, 0.018 flag-array).  The delta keeps 1e-9.
     a = from_spec(FAMILIES[name])
     pts, dirs, cur = a.transmit_segments(F)
     centre = np.asarray(a.positions, dtype=float).mean(axis=0) if hasattr(a, "positions") else np.zeros(2)
     k = 2 * np.pi * F / 299792458.0
     ground = _soil(a)
+    along_halves = name in ("flag", "flag-array")
     worst = 0.0
-    for az in np.radians([0.0, 37.0, 90.0, 150.0, 200.0, 301.0]):
-        for el in np.radians([2.0, 20.0, 45.0, 80.0]):
+    for el in np.radians([2.0, 20.0, 45.0, 80.0]):
+        around = np.radians(np.arange(0.0, 360.0, 5.0))
+        best = float(np.max(np.abs(a.complex_response(F, around, np.full(around.shape, el))[0])))
+        for az in np.radians([0.0, 37.0, 90.0, 150.0, 200.0, 301.0]):
             rv, rh = a.complex_response(F, np.array([az]), np.array([el]))
             shift = np.exp(1j * k * np.cos(el) * (centre[0] * np.sin(az) + centre[1] * np.cos(az)))
+            norm = best if along_halves else max(abs(rv[0]), abs(rh[0]))
             for pol, r in (("v", rv[0]), ("h", rh[0])):
                 v = np.einsum("ni,ni,n->", placed.plane_wave_field(F, pts, az, el, ground, pol), dirs, cur) * shift
-                worst = max(worst, abs(v - r) / max(abs(rv[0]), abs(rh[0])))
-    assert worst < (1e-3 if name in ("small-loop", "whip", "pair-lines", "four-square") else 1e-9)
+                worst = max(worst, abs(v - r) / norm)
+    small = ("small-loop", "whip", "pair-lines", "four-square")
+    assert worst < (0.03 if along_halves else 1e-3 if name in small else 1e-9)
 
 
 @pytest.mark.parametrize("name", sorted(FAMILIES))

@@ -228,7 +228,7 @@ class Vertical(Antenna):
         field along it, incident plus Fresnel-reflected, gives :meth:`complex_response` within the two currents'
         difference in pattern (module docstring), exactly with top loading."""
         g = self.ground
-        key = (float(freq_hz), None if g is None else (g.permittivity, g.conductivity_s_per_m))
+        key = (float(freq_hz), None if g is None else (g.permittivity, g.conductivity_s_per_m), self.gain_key())
         if key in self._segments:
             return self._segments[key]
         if len(self._segments) > 64:
