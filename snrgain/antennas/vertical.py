@@ -50,9 +50,10 @@ perfect one.  Measured against NEC-2 over Sommerfeld ground (tests/test_near_com
 vertical 5 m from a source against its reading 50 m away): within 0.3 dB where the sinusoid missed by -2.5 dB (a
 vertical source 2 m up) and +3.05/+5.9 dB (a horizontal one 4 m up, moist loam/1 mS/m).  The pattern keeps the
 sinusoid (the solved current's pattern is within 0.02 dB of it below 20 deg, 0.11 dB at 75 deg, for a
-quarter-wave wire); the near reading takes the solved current's near-to-far ratio
+quarter-wave wire; for a 0.6-wave wire 0.3 dB at 5 deg, 3 dB at 45 deg, where the sinusoid is the poorer); the near
+reading takes the solved current's near-to-far ratio in the source's direction
 (:func:`snrgain.model.placed._through_currents`), so the two agree far away.  With top loading the sinusoid is
-kept (a hat is not solved).
+kept (a hat is not solved), and for a wire under 80 radii tall (too fat for a thin-wire solution).
 """
 
 from __future__ import annotations
@@ -75,10 +76,16 @@ _NZ = 24
 _NPSI = 96
 
 THIN_WIRE_PULSES = 160
-"""Pulses up the wire for its solved current (:func:`thin_wire_current`).  A quarter-wave wire 5 m from a horizontal
-source 4 m up over moist loam reads -2.6, -1.4, -0.9, -0.67, -0.57 dB against NEC-2 with the perfect-ground image
-at 20, 40, 80, 160, 320 pulses (the charge by the feed converges slowly); 160 cost 2-3 ms per wire and
-frequency."""
+"""Most pulses up the wire for its solved current (:func:`thin_wire_current`).  A quarter-wave wire 5 m from a
+horizontal source 4 m up over moist loam reads -2.6, -1.4, -0.9, -0.67, -0.57 dB against NEC-2 with the
+perfect-ground image at 20, 40, 80, 160, 320 pulses (the charge by the feed converges slowly); 160 cost about 1 ms
+per wire and frequency."""
+PULSE_RADII = 4.0
+"""Pulses no shorter than this many radii (the reduced kernel wanders below about two: a 2 m wire of 12.5 mm radius
+puts its mid-height current at 0.442, 0.457, 0.471 of the base's with pulses 1, 2, 4 radii long)."""
+MIN_PULSES = 20
+"""Fewer pulses than this (a wire under 80 radii tall) and the wire is too fat for the thin-wire solution: the
+sinusoid is kept."""
 _KERNEL_POINTS = 16
 _CURRENTS = Memo(64)
 """The solved current per (frequency, height, radius, image coefficient)."""
@@ -101,9 +108,15 @@ def _pulse_kernel(k: float, u: np.ndarray, dz: float, a: float) -> np.ndarray:
     return smooth + np.arcsinh((u + 0.5 * dz) / a) - np.arcsinh((u - 0.5 * dz) / a)
 
 
+def pulses(height_m: float, radius_m: float) -> int:
+    """The pulses up a wire for its solved current: :data:`THIN_WIRE_PULSES`, fewer where they would be shorter than
+    :data:`PULSE_RADII` radii."""
+    return int(min(THIN_WIRE_PULSES, np.floor(height_m / (PULSE_RADII * radius_m))))
+
+
 def thin_wire_current(freq_hz: float, height_m: float, radius_m: float, image: complex = 1.0):
     """(z [m] (N,), I (N,)) the current of a base-fed vertical wire of ``height_m`` and ``radius_m`` at the centres
-    of :data:`THIN_WIRE_PULSES` equal pulses, for 1 V at the base, its image weighted by ``image`` (1: perfect
+    of N equal pulses (:func:`pulses`), for 1 V at the base, its image weighted by ``image`` (1: perfect
     ground; :func:`image_coefficient`): Hallen's equation with the reduced kernel,
     integral I(z') [K(z - z') + image K(z + z')] dz' = -j (4 pi / eta0) [C cos kz + sin kz], matched at the pulses'
     centres and at the tip (the unknowns the currents and C).  The pulses' offsets repeat, so the kernel is worked
@@ -111,7 +124,9 @@ def thin_wire_current(freq_hz: float, height_m: float, radius_m: float, image: c
     key = (float(freq_hz), float(height_m), float(radius_m), complex(image))
 
     def make():
-        n = THIN_WIRE_PULSES
+        n = pulses(height_m, radius_m)
+        if n < 2:
+            raise ValueError(f"height: {height_m:g} m is too short for a wire of {radius_m:g} m radius")
         k = 2 * np.pi * freq_hz / C_M_PER_S
         dz = height_m / n
         # K at offsets m dz / 2, m = 0 .. 4n: centre to centre (even m), tip to centre (odd m), images beyond
@@ -254,7 +269,7 @@ class Vertical(Antenna):
         the tip), scaled to the sinusoid's effective height."""
         k = 2 * np.pi * freq_hz / C_M_PER_S
         sinusoid = np.sin(k * (self.height_m + self.top_m - z)) + 0j
-        if self.top_m > 0:
+        if self.top_m > 0 or pulses(self.height_m, self.radius_m) < MIN_PULSES:
             return sinusoid
         zc, ic = thin_wire_current(freq_hz, self.height_m, self.radius_m, image_coefficient(self.ground, freq_hz))
         h = self.height_m
