@@ -36,7 +36,16 @@ def _ground(name):
 def _model(name, gname):
     g, a = _ground(gname), REF["antennas"]
     if name in ("reference", "whip"):
-        return from_spec({"family": "vertical", "height": f"{a[name]['height_m']} m", "ground": g, "position": [0, 0]})
+        v = a[name]
+        return from_spec(
+            {
+                "family": "vertical",
+                "height": f"{v['height_m']} m",
+                "diameter": f"{2 * v['radius_m']} m",  # NEC's wire
+                "ground": g,
+                "position": [0, 0],
+            }
+        )
     if name == "flag":
         f = a["flag"]
         return from_spec(
@@ -150,22 +159,19 @@ def _point(name, gname, seg, place, d, h):
 
 # Cases the model misses by more than the tolerance, each with its measured error, its cause, and a bound that
 # still catches a change for the worse (not the value itself: a better field model may only move them closer).
-KNOWN_MISSES = {
-    # The flag with a source 10 m up, 10 m behind its middle (5.75 m past the terminated side): measured -3.7 dB
-    # (-3.6 with the closed-form field before the Sommerfeld integrals): the line model's equivalent currents (the
-    # sides' electric share, a far-field equivalent of where the charge sits) miss the near field of a raised source
-    # this close.  Moving the electric share onto the width or onto the charge moment's height made it worse
-    # (-9.9, -10.3 dB).
-    ("flag", "loam", "back", 10.0, 10.0, "vertical"): 4.5,
-    # The quarter-wave reference itself 5 m from a source (against itself 50 m away), the field now the exact
-    # Sommerfeld integrals (noisemodels.halfspace): -2.5 dB (source 2 m up, loam; -5.0 with the closed-form field
-    # before), +3.05 dB and +5.9 dB for the horizontal source 4 m up over loam and over 1 mS/m (+1.9 and +5.6
-    # before: the closed form's error had hidden part of the loam case; with the field exact what is left is the
-    # vertical's own reading of a horizontal source this close).  The other close cases (5-10 m, 2-6 m up, both
-    # grounds: -3.0 to -2.6 dB before) are within the tolerance now (-2.0 to -0.3 dB).
-    ("reference", "loam", "any", 5.0, 2.0, "vertical"): 3.0,
-    ("reference", "loam", "any", 5.0, 4.0, "horizontal"): 3.5,
-    ("reference", "dry", "any", 5.0, 4.0, "horizontal"): 6.5,
+KNOWN_MISSES: dict = {
+    # None left.  Former misses and their causes, found by putting NEC-2's own currents (its output's current
+    # table, run with the stored decks) through the model's reciprocity integral with the same field:
+    # - the quarter-wave reference 5 m from a source (against itself 50 m away): -2.5 dB (source 2 m up, loam),
+    #   +3.05 and +5.9 dB (horizontal source 4 m up, loam and 1 mS/m) with the sinusoidal current.  Not the
+    #   quadrature (82 or 328 points up the wire: the same within 0.01 dB) but the current: NEC's (160 segments)
+    #   gave -0.05, -0.82, +0.11 dB through the same integral.  With the wire's solved current
+    #   (snrgain.antennas.vertical.thin_wire_current, over the soil's image): -0.15, -0.26, -0.05 dB;
+    # - the flag with a source 10 m up, 10 m behind its middle: -3.7 dB with the equivalent rectangle's currents
+    #   (NEC's currents: +0.15 dB); with the line carried along the loop's own halves
+    #   (snrgain.antennas.termloop.TerminatedLoop.transmit_segments): -1.14 dB, the rest of that offset the model
+    #   pattern's rear null (read in the source's direction, snrgain.model.placed._through_currents), 1.1 dB deeper
+    #   than these currents give (every rear case reads -0.6 to -1.5 dB; front and side within 0.13 dB).
 }
 
 
@@ -173,13 +179,15 @@ KNOWN_MISSES = {
 def test_near_source_ratio_against_nec(case):
     # Tolerance 2.5 dB (the brief's, up to 200 m) plus NEC's own spread between its two segmentations for the case
     # (the flag's rear null moves by up to 5.8 dB between them at 60 m; elsewhere under 0.6 dB).  Measured, model
-    # over NEC (coarse), with the source's field the exact Sommerfeld integrals (noisemodels.halfspace): the whip
-    # within 0.31 dB over loam and 0.29 dB over 1 mS/m (source 2-10 m up, horizontal too; 1.2-2.0 dB with the
-    # closed-form field before); the flag within 2.4 dB but for the known miss; the pair within 0.4 dB but 15 m
-    # behind it with the source 6 m up, +1.9 dB (-8.8 before: the closed form's vertical field near its
-    # quasi-static null); the reference itself (against its reading 50 m away) within 1.0 dB from 15 m out, within
-    # 2.0 dB at 10 m.  Through the pattern at the antenna's point (the reading before) the same cases missed by up
-    # to 7 dB (whip), 31 dB (flag), 64 dB (pair) and 45 dB (the reference at 5 m).
+    # over NEC (coarse), with the source's field the exact Sommerfeld integrals (noisemodels.halfspace), the
+    # verticals' solved currents and the flag's line along its own halves: the whip within 0.10 dB over loam and
+    # 1 mS/m (source 2-10 m up, horizontal too; 0.31 dB with the sinusoidal current); the flag within 0.13 dB in
+    # front and to the side, 0.6-1.5 dB low behind it (its pattern's rear null; -3.7 dB 10 m behind, 10 m up with
+    # the equivalent rectangle's currents); the pair within 0.9 dB (15 m behind it with the source 6 m up -0.87 dB,
+    # +1.9 with the sinusoidal current, -8.8 with the closed-form field); the reference itself (against its reading
+    # 50 m away) within 0.3 dB at every distance (3.05 dB at 5 m with the sinusoidal current).  Through the pattern
+    # at the antenna's point (the reading before) the same cases missed by up to 7 dB (whip), 31 dB (flag), 64 dB
+    # (pair) and 45 dB (the reference at 5 m).
     name, gname, place, d, h, kind = case
     err = _error_db(name, gname, "coarse", _point(name, gname, "coarse", place, d, h), kind)
     err_fine = _error_db(name, gname, "fine", _point(name, gname, "fine", place, d, h), kind)
@@ -227,7 +235,8 @@ def test_pairs_former_miss_reads_the_same_with_the_reference_integrals(monkeypat
     # The pair 15 m behind, source 6 m up (a near null) missed by -8.8 dB with the closed-form field; the run-time
     # field is now the Sommerfeld integrals (noisemodels.halfspace, numpy): within the tolerance of NEC, and the
     # same within 0.1 dB as with the scipy reference integrals (noisemodels.sommerfeld) through the same currents.
-    # Measured: +1.93 dB both (the pair alone, before the reference's ratio).
+    # Measured: -0.89 both (the pair alone, before the reference's ratio; +1.93 both with the sinusoidal
+    # current).
     pt = _point("pair", "loam", "coarse", "back", 15.0, 6.0)
     pm, pn = _powers("pair", "loam", "coarse", pt, "vertical")
     run_time = 10 * np.log10(pm / pn)
@@ -238,8 +247,9 @@ def test_pairs_former_miss_reads_the_same_with_the_reference_integrals(monkeypat
 
 
 def test_references_close_reading_is_the_reference_integrals(monkeypatch):
-    # The reference 5 m from a source 2 m up (KNOWN_MISSES): -5.0 dB with the closed-form field before, -2.5 dB
-    # with the run-time integrals, the same within 0.1 dB as with the scipy reference integrals (measured).
+    # The reference 5 m from a source 2 m up: -5.0 dB with the closed-form field, -2.5 dB with the run-time integrals
+    # and the sinusoidal current, -0.15 dB with the wire's solved current; the same within 0.1 dB as with the scipy
+    # reference integrals (measured: -0.15 both).
     near = _point("reference", "loam", "coarse", "any", 5.0, 2.0)
     far = _point("reference", "loam", "coarse", "any", REFERENCE_DISTANCE_M, 2.0)
 
@@ -248,7 +258,7 @@ def test_references_close_reading_is_the_reference_integrals(monkeypatch):
         return 10 * np.log10((pm / rm) / (pn / rn))
 
     run_time = ratio()
-    assert abs(run_time) < 3.0
+    assert abs(run_time) < 0.5
     monkeypatch.setattr(placed, "field_vector", _exact_field_vector)
     assert ratio() == pytest.approx(run_time, abs=0.1)
 
@@ -319,21 +329,30 @@ def test_currents_give_each_familys_response(name):
     # family's complex response, both polarizations, every direction: the currents are the model's own.  Arrays
     # are placed at their elements' centroid, so their phase is referred there (the response's to the origin).
     # Tolerance: 1e-9 relative; the small loop 1e-3 (the pattern takes H at the loop's centre, the currents the
-    # flux through the whole loop; measured 2.5e-4).
+    # flux through the whole loop; measured 2.5e-4); verticals without top loading 1e-3 (the pattern is the
+    # sinusoid's, the currents the wire's solved ones: measured 2.3e-4 whip, 5.1e-4 pair-lines, 3.5e-4
+    # four-square; the top-loaded one keeps the sinusoid, 1e-9); a flag's currents run along its own halves, not
+    # the equivalent rectangle its pattern is made of: against the pattern's best at that elevation (its rear null
+    # is 1-2 dB shallower along them) 0.03 (measured 0.021 flag, 0.018 flag-array).  The delta keeps 1e-9.
     a = from_spec(FAMILIES[name])
     pts, dirs, cur = a.transmit_segments(F)
     centre = np.asarray(a.positions, dtype=float).mean(axis=0) if hasattr(a, "positions") else np.zeros(2)
     k = 2 * np.pi * F / 299792458.0
     ground = _soil(a)
+    along_halves = name in ("flag", "flag-array")
     worst = 0.0
-    for az in np.radians([0.0, 37.0, 90.0, 150.0, 200.0, 301.0]):
-        for el in np.radians([2.0, 20.0, 45.0, 80.0]):
+    for el in np.radians([2.0, 20.0, 45.0, 80.0]):
+        around = np.radians(np.arange(0.0, 360.0, 5.0))
+        best = float(np.max(np.abs(a.complex_response(F, around, np.full(around.shape, el))[0])))
+        for az in np.radians([0.0, 37.0, 90.0, 150.0, 200.0, 301.0]):
             rv, rh = a.complex_response(F, np.array([az]), np.array([el]))
             shift = np.exp(1j * k * np.cos(el) * (centre[0] * np.sin(az) + centre[1] * np.cos(az)))
+            norm = best if along_halves else max(abs(rv[0]), abs(rh[0]))
             for pol, r in (("v", rv[0]), ("h", rh[0])):
                 v = np.einsum("ni,ni,n->", placed.plane_wave_field(F, pts, az, el, ground, pol), dirs, cur) * shift
-                worst = max(worst, abs(v - r) / max(abs(rv[0]), abs(rh[0])))
-    assert worst < (1e-3 if name == "small-loop" else 1e-9)
+                worst = max(worst, abs(v - r) / norm)
+    small = ("small-loop", "whip", "pair-lines", "four-square")
+    assert worst < (0.03 if along_halves else 1e-3 if name in small else 1e-9)
 
 
 @pytest.mark.parametrize("name", sorted(FAMILIES))
@@ -464,3 +483,67 @@ def test_a_source_on_a_loops_far_side_is_refused_naming_the_field():
         snrgain.evaluate(SCEN.format(east='"8 m"'))
     r = snrgain.evaluate(SCEN.format(east='"12 m"'))
     assert np.isfinite(r.candidates[0].snr_gain_nominal_db[0])
+
+
+# -- the vertical's solved current ----------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("height_m, radius_m", [(40.96, 0.025), (6.0, 0.005), (20.0, 0.002)])
+def test_solved_current_conserves_power_over_perfect_ground(height_m, radius_m):
+    # Poynting's theorem (J. D. Kraus, "Antennas", 2nd ed., Sec. 2-11, the radiation resistance from the far field):
+    # over a perfect ground the power the base gives, Re(V I*) / 2 with 1 V, is what the solved current radiates
+    # into the upper half-space, a check of the solution independent of how it was made.  Measured: within 2.1e-5
+    # (quarter-wave), 1.4e-5 (6 m), 1.8e-5 (20 m).
+    from snrgain.antennas.vertical import thin_wire_current
+    from snrgain.physics.ground import ETA0_OHM
+    from snrgain.physics.quadrature import gauss_legendre
+
+    z, i = thin_wire_current(F, height_m, radius_m, 1.0)
+    k = 2 * np.pi * F / 299792458.0
+    x, w = gauss_legendre(96)
+    psi = 0.25 * np.pi * (x + 1.0)
+    dz = height_m / len(z)
+    form = 2 * np.cos(k * np.outer(np.sin(psi), z)) @ (i * dz)  # the current and its image
+    u = ETA0_OHM * k**2 / (32 * np.pi**2) * np.cos(psi) ** 2 * np.abs(form) ** 2
+    p_rad = 2 * np.pi * float(np.sum(u * np.cos(psi) * 0.25 * np.pi * w))
+    assert p_rad == pytest.approx(0.5 * i[0].real, rel=2e-4)
+
+
+def test_solved_current_over_soil_and_its_image():
+    # Over perfect ground the image weight is 1; over moist loam at 1.83 MHz (eps_c = 13 - 49.1j) 0.989 - 0.038j;
+    # the soil's image changes the current near the base (where a close source reads it), and a thinner wire's
+    # current differs from a thicker one's: both are inputs of the solution, not ignored.
+    from snrgain.antennas.vertical import image_coefficient, thin_wire_current
+
+    loam = _soil(_antenna("reference", "loam"))
+    assert image_coefficient(None, F) == 1.0
+    eps = 13.0 - 1j * 0.005 / (2 * np.pi * F * 8.8541878128e-12)
+    assert image_coefficient(loam, F) == pytest.approx((eps - 1) / (eps + 1), rel=1e-9)
+    h = REF["antennas"]["reference"]["height_m"]
+    _, perfect = thin_wire_current(F, h, 0.025, 1.0)
+    _, soil = thin_wire_current(F, h, 0.025, image_coefficient(loam, F))
+    _, thin = thin_wire_current(F, h, 0.002, 1.0)
+    assert abs(soil[0] / perfect[0] - 1) > 0.01
+    assert abs(thin[0] / perfect[0] - 1) > 0.01
+
+
+def test_vertical_diameter_is_checked():
+    from snrgain.errors import SpecError
+
+    with pytest.raises(SpecError, match="diameter: must be between"):
+        from_spec({"family": "vertical", "height": "6 m", "diameter": "0 m"})
+
+
+def test_a_fat_vertical_keeps_the_sinusoid():
+    # Under 80 radii tall the pulses would be shorter than four radii (the thin-wire solution wanders): such a
+    # wire keeps the sinusoidal current, exactly the pattern's; a thin one of the same height does not.
+    fat = from_spec({"family": "vertical", "height": "6 m", "diameter": "0.2 m", "ground": "moist loam"})
+    thin = from_spec({"family": "vertical", "height": "6 m", "diameter": "5 mm", "ground": "moist loam"})
+    k = 2 * np.pi * F / 299792458.0
+    for a, same in ((fat, True), (thin, False)):
+        pts, _, cur = a.transmit_segments(F)
+        shape = cur / cur[0]
+        sinusoid = np.sin(k * (6.0 - pts[:, 2])) / np.sin(k * (6.0 - pts[0, 2]))
+        x, w = np.polynomial.legendre.leggauss(len(cur))
+        ratio = shape / (sinusoid * w / w[0])
+        assert np.allclose(ratio, 1.0, atol=1e-12) == same
