@@ -228,3 +228,20 @@ def test_library_edges_are_refused_naming_the_argument():
         warnings.simplefilter("error")
         assert v.gain_dbi(1.83e6, 0.0, -10.0) == -np.inf
         assert np.isfinite(v.gain_dbi(np.float32(1.83e6), 0.0, 10.0))
+
+
+def test_phased_verticals_elements_take_the_arrays_diameter():
+    # The elements' solved currents (read by near sources) use the array's conductor diameter.
+    a = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [0, 20]],
+            "height": "6 m",
+            "diameter": "40 mm",
+            "steering": "given",
+            "phases": [0, 90],
+            "phase_sense": "lag",
+            "ground": "moist loam",
+        }
+    )
+    assert [e.radius_m for e in a.elements] == [0.02, 0.02]

@@ -511,6 +511,7 @@ class PhasedVerticals(Array):
                 "height": params.height,
                 "ground_loss": params.ground_loss,
                 "top_loading": params.top_loading,
+                "diameter": params.diameter,
                 "position": [pos[0], pos[1]],
             }
             if params.delays is not None:
