@@ -65,20 +65,26 @@ def _fresnel(eps, s, c):
 
 
 def beverage_floor(ant, struct):
-    """The terminated long wire with its down-leads (snrgain.antennas.longwire): the transmission-line currents of
-    a plane wave along the wire, the leads' EMFs, the feed current into the receiver's load."""
+    """The long wire (snrgain.antennas.longwire: a Beverage with its down-leads, a BOG without, an unterminated wire
+    with its far end open): the transmission-line currents of a plane wave along the wire, the leads' EMFs, the
+    feed current into the receiver's load."""
     el_u, inv, cos_az, sin_az = struct
     line = ant.line(F)
     g, z0, length, h = line.gamma, line.z0, ant.length_m, ant.wire_height_m()
     load = ant.receiver_load_ohm(F)
     z_feed, z_far = load + ant.feed_rod_ohm, ant.far_load_ohm(F)
+    leads = ant.has_leads
     k = 2 * np.pi * F / C
     eps = _eps(ant.ground, F)
     cb, sb = np.cos(ant.bearing_rad), np.sin(ant.bearing_rad)
     e2, eg = np.exp(-2 * g * length), np.exp(-g * length)
     ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-    d0, d1 = z0 * z_feed * ch + z0 * z0 * sh, z0 * ch + z_feed * sh
-    den = d0 + z_far * d1
+    if z_far is None:  # open far end
+        den = z0 * ch + z_feed * sh
+        c_p, c_m, c_end, c_phase = 0.5, -0.5, sh, 0.0
+    else:
+        den = z0 * (z_feed + z_far) * ch + (z0 * z0 + z_feed * z_far) * sh
+        c_p, c_m, c_end, c_phase = 0.5 * (z0 + z_far), 0.5 * (z0 - z_far), z0 * ch + z_far * sh, z0 * eg
     scale2 = 4 * np.pi / LAM**2 * load * ETA0 / abs(den) ** 2
     s_u, c_u = np.sin(el_u), np.cos(el_u)
 
@@ -88,19 +94,18 @@ def beverage_floor(ant, struct):
         dn = up.conj()
         f_v = s_u * (up - r_v * dn)
         f_h = up + r_h * dn
-        seg = (up - 1.0) / (1j * k * s_u)
-        lead = c_u * (seg + r_v * seg.conj())
         cd = cos_az * cb + sin_az * sb
         sd = sin_az * cb - cos_az * sb
         along = c_u[inv] * cd
         phase = np.exp((1j * k * length) * along)
         jkc = 1j * k * along
         decay = phase * eg
-        j_p = (decay - 1.0) / (jkc - g)
-        j_m = (decay - e2) / (jkc + g)
-        q = 0.5 * (z0 + z_far) * j_p + 0.5 * (z0 - z_far) * j_m
-        v_end = lead[inv]
-        i_v = -cd * f_v[inv] * q + v_end * (z0 * ch + z_far * sh - z0 * eg * phase)
+        q = c_p * ((decay - 1.0) / (jkc - g)) + c_m * ((decay - e2) / (jkc + g))
+        i_v = -cd * f_v[inv] * q
+        if leads:
+            seg = (up - 1.0) / (1j * k * s_u)
+            lead = c_u * (seg + r_v * seg.conj())
+            i_v += lead[inv] * (c_end - c_phase * phase)
         i_h = -sd * f_h[inv] * q
         return scale2 * (i_v.real**2 + i_v.imag**2 + i_h.real**2 + i_h.imag**2)
 
@@ -240,6 +245,14 @@ QUARTER = LAM / 4
 CASES = {
     "beverage 250 m": (
         lambda: from_si("beverage", length=250.0, height=2.5, ground=GROUND, termination=500.0),
+        beverage_floor,
+    ),
+    "BOG 90 m": (
+        lambda: from_si("bog", length=90.0, ground=GROUND, termination=400.0),
+        beverage_floor,
+    ),
+    "unterminated 250 m": (
+        lambda: from_si("unterminated", length=250.0, height=2.5, ground=GROUND),
         beverage_floor,
     ),
     "terminated loop 8 x 4 m": (

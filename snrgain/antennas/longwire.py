@@ -437,8 +437,11 @@ def feed_current_forms(
     _, _, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, L)
     d0, d1 = line_denominator(line, L, z_feed)
     q0, q1 = 0.5 * z0 * (j_plus + j_minus), 0.5 * (j_plus - j_minus)
+    forms_h = (drive_h * q0, drive_h * q1)
+    if np.isscalar(v_end) and v_end == 0:  # no lumped EMF at the ends (a wire without down-leads)
+        return (drive_v * q0, drive_v * q1), forms_h, (d0, d1)
     e0, e1 = v_end * (z0 * ch - z0 * eg * phase_l), v_end * sh
-    return (drive_v * q0 + e0, drive_v * q1 + e1), (drive_h * q0, drive_h * q1), (d0, d1)
+    return (drive_v * q0 + e0, drive_v * q1 + e1), forms_h, (d0, d1)
 
 
 def line_currents(
@@ -640,8 +643,8 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             length_m=self.length_m,
             z_feed=z_feed,
             z_far=z_far,
-            drive_v=-w.cos_dphi * f_v[w.inv],
-            drive_h=-w.sin_dphi * f_h[w.inv],
+            drive_v=w.cos_dphi * (-f_v)[w.inv],
+            drive_h=w.sin_dphi * (-f_h)[w.inv],
             v_end=lead,
         )
         return i_f, w
@@ -657,8 +660,8 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             length_m=self.length_m,
             z_feed=self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm,
             z_far=self.far_load_ohm(freq_hz),
-            drive_v=-w.cos_dphi * f_v[w.inv],
-            drive_h=-w.sin_dphi * f_h[w.inv],
+            drive_v=w.cos_dphi * (-f_v)[w.inv],
+            drive_h=w.sin_dphi * (-f_h)[w.inv],
             v_end=lead,
             far_current=far_current,
         )
@@ -702,8 +705,8 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
                 line=self.line(freq_hz),
                 length_m=self.length_m,
                 z_feed=0.0,
-                drive_v=-w.cos_dphi * f_v[w.inv],
-                drive_h=-w.sin_dphi * f_h[w.inv],
+                drive_v=w.cos_dphi * (-f_v)[w.inv],
+                drive_h=w.sin_dphi * (-f_h)[w.inv],
                 v_end=lead,
             )
             return (*forms[:2], w.el, geo)
