@@ -193,32 +193,83 @@ def test_a_choke_scales_every_direction_alike_and_the_reported_one_gives_its_red
 
 
 def test_a_long_wires_own_amplitude_is_placed_reading_to_the_bit():
-    # The feed line's phasor sum takes the Beverage's own amplitude with the source's field along it memoised (a
-    # termination search pays only the line's transfer): the same samples and integral as snrgain.model.placed.
+    # The feed line's phasor sum takes the Beverage's own amplitude from snrgain.model.placed (kept there by the
+    # antenna object): the same as the reciprocity integral worked anew, with the field along the wire and up its
+    # leads in one call or in two (snrgain.physics.reciprocity.wire_currents_in_field), alone or with other wires.
+    from snrgain.antennas.base import variant
+    from snrgain.antennas.longwire import port_response
+    from snrgain.memo import forget
+    from snrgain.physics.reciprocity import wire_currents_in_field
+
+    bev = _beverage()
+    others = [variant(bev, bearing=float(np.radians(b))) for b in (30.0, 200.0)]
+    for src in (_source(10.0, -75.0), _source(60.0, 120.0, height=5.0), _source(-30.0, 40.0)):
+        forget()
+        a = placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND, kind="vertical")[0]
+        assert placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND, kind="vertical")[0] == a
+        # worked anew in two calls of the field (along the wire, then up the leads), as the physics layer does
+        b = bev.bearing_rad
+        to_src = np.asarray(src.position_m) - np.zeros(2)
+        u = np.array([np.sin(b), np.cos(b)])
+        closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, bev.length_m) * u)))
+        x = placed.wire_samples(bev.length_m, F, float(np.hypot(closest, src.height_m)))
+        i_f = wire_currents_in_field(
+            bev, F, np.zeros((1, 2)), x, lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical")
+        )
+        load = bev.receiver_load_ohm(F)
+        direct = port_response(F, i_f, load_ohm=load, elevation_rad=np.array([src.elevation_rad]))[0]
+        assert a == pytest.approx(direct, rel=1e-12)
+        # with two other wires' EMFs worked in the same call of the field (pickup, one source at a time)
+        forget()
+        wires = [bev, *others]
+        placed._prefetch_wire_emfs(wires, src, F, (0.0, 0.0), GROUND, "vertical", np.full(3, np.nan))
+        assert len(placed._EMFS) == 3
+        batched = [placed.received_amplitudes(w, src, F, (0.0, 0.0), GROUND, kind="vertical")[0] for w in wires]
+        assert len(placed._EMFS) == 3  # nothing worked again
+        forget()
+        alone = [placed.received_amplitudes(w, src, F, (0.0, 0.0), GROUND, kind="vertical")[0] for w in wires]
+        np.testing.assert_allclose(batched, alone, rtol=1e-12)
+        assert batched[0] == pytest.approx(a, rel=1e-12)
+        # a termination tried is another antenna: its own amplitude, not the one kept for the first
+        other_r = variant(bev, termination=2.0 * float(CASE["termination_ohm"]))
+        assert placed.received_amplitudes(other_r, src, F, (0.0, 0.0), GROUND, kind="vertical")[0] != a
+
+
+def test_a_routes_emfs_are_the_field_along_it_worked_anew():
+    # The route's EMFs from a source, alone or with other routes in one call of the field (prepare, one source at a
+    # time), are route_emf of the source's field; the current kept once per route and scaled to each coupling
+    # (Thevenin) is the current worked anew.
+    from snrgain.memo import forget
     from snrgain.model import feedline
 
     bev = _beverage()
+    bent = phys.FeedLine((0.0, 0.0), (40.0, -90.0), 1.0, 0.0027, CASE["shield_radius_m"], CASE["station_ground_ohm"])
     for src in (_source(10.0, -75.0), _source(60.0, 120.0, height=5.0), _source(-30.0, 40.0)):
-        a = placed.received_amplitudes(bev, src, F, (0.0, 0.0), GROUND, kind="vertical")[0]
-        assert feedline._wire_amplitude(bev, src, "vertical", F, (0.0, 0.0), GROUND) == a
-        # and with the field worked once for the route and the wire together (feedline._fields)
-        got = feedline._fields(_shield(), bev, src, "vertical", F, (0.0, 0.0), GROUND)
-        assert feedline._wire_amplitude(bev, src, "vertical", F, (0.0, 0.0), GROUND, got) == pytest.approx(a, rel=1e-12)
-        route = feedline._route_emf(_shield(choke=1.0), src, "vertical", F, GROUND, got)
-        x, emf, lead = phys.route_emf(
-            _shield(),
-            F,
-            lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"),
-            closest_m=feedline._closest(_shield(), src),
-        )
-        np.testing.assert_allclose(route[1], emf, rtol=1e-12)
-        np.testing.assert_allclose(route[2], lead, rtol=1e-12)
-        # the route's current kept once and scaled to each coupling (Thevenin) is the current worked anew
+        worked = []
+        for fl in (_shield(), bent):
+            x, emf, lead = phys.route_emf(
+                fl,
+                F,
+                lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"),
+                closest_m=feedline._closest(fl, src),
+            )
+            worked.append((x, emf, lead))
+        for batch in (False, True):
+            forget()
+            if batch:
+                feedline._prefetch_route_emfs([_shield(), bent], src, "vertical", F, GROUND)
+                assert len(feedline._MEMO) == 2
+            for fl, (x, emf, lead) in zip((_shield(), bent), worked):
+                route = feedline._route_emf(fl, src, "vertical", F, GROUND)
+                np.testing.assert_allclose(route[0], x, rtol=0, atol=0)
+                np.testing.assert_allclose(route[1], emf, rtol=1e-12)
+                np.testing.assert_allclose(route[2], lead, rtol=1e-12)
+        x, emf, lead = worked[0]
         rod, loop, load = antenna_loads(bev, F)
         for fl in (_shield(), _shield(choke=700.0), _shield(isolation="transformer")):
             c = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
             direct = phys.emf_current(fl, c, x, emf, lead)
-            assert feedline._route_current(fl, c, src, "vertical", F, GROUND, got) == pytest.approx(direct, rel=1e-9)
+            assert feedline._route_current(fl, c, src, "vertical", F, GROUND) == pytest.approx(direct, rel=1e-9)
 
 
 def test_the_memoised_sky_pattern_scaled_by_thevenin_is_the_pattern_worked_anew():
