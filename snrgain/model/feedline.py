@@ -139,11 +139,23 @@ def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
     )
 
 
+def _halves_capacitance(upper, lower, radius_m: float, image: float) -> np.ndarray:
+    """:func:`snrgain.antennas.termloop.halves_capacitance`, kept by the outline, wire and ground (a moment solution:
+    the same loop over the same ground for every products of a run, a termination tried or a spread's ground)."""
+    from snrgain.antennas.termloop import halves_capacitance
+
+    def outline(points):
+        return tuple(tuple(float(v) for v in p) for p in points)
+
+    key = ("halves", outline(upper), outline(lower), float(radius_m), float(image))
+    return _memo(key, lambda: halves_capacitance(upper, lower, radius_m, image)).copy()
+
+
 def _flag_end(antenna, f: float) -> phys.End:
-    from snrgain.antennas.termloop import halves_capacitance, static_image_factor
+    from snrgain.antennas.termloop import static_image_factor
     from snrgain.physics import lines
 
-    c = halves_capacitance(
+    c = _halves_capacitance(
         antenna.upper, antenna.lower, antenna.params.radius_m, static_image_factor(antenna.ground, f)
     )
     c = c[::-1, ::-1]  # the shield on the lower half's terminal: P = lower, Q = upper
@@ -154,14 +166,14 @@ def _flag_end(antenna, f: float) -> phys.End:
 
 
 def _small_loop_end(antenna, f: float) -> phys.End:
-    from snrgain.antennas.termloop import halves_capacitance, loop_constants, static_image_factor
+    from snrgain.antennas.termloop import loop_constants, static_image_factor
 
     p = antenna.params
     z1, z2, w = p.height - p.loop_height / 2, p.height + p.loop_height / 2, p.width
     a = [(w / 2, z1), (0.0, z1), (0.0, z2), (w / 2, z2)]  # the halves, from the feed at the bottom middle
     b = [(w / 2, z1), (w, z1), (w, z2), (w / 2, z2)]
     image = static_image_factor(antenna.ground, f)
-    c = halves_capacitance(a, b, p.radius_m, image)
+    c = _halves_capacitance(a, b, p.radius_m, image)
     inductance = loop_constants(a, b, p.radius_m, image)[0] * p.turns**2
     r_rad, r_loss = antenna.input_resistance_ohm(f)
     z_in = complex(r_rad + r_loss, 2 * np.pi * f * inductance)
