@@ -272,6 +272,30 @@ def test_a_routes_emfs_are_the_field_along_it_worked_anew():
             assert feedline._route_current(fl, c, src, "vertical", F, GROUND) == pytest.approx(direct, rel=1e-9)
 
 
+def test_a_run_builds_one_near_field_table_per_ground_and_kind(monkeypatch):
+    # The near field's table (noisemodels.halfspace) reaches 32 m of height from the first: a wire 2 m up and a
+    # source 3 m up, then a 20 m vertical's segments from a source 5 m up, take one table (they took three, grown
+    # one after another: 8, 24, 32 m); the values do not depend on the table's reach.
+    from noisemodels import halfspace
+    from noisemodels.groundwave import complex_permittivity
+
+    src, high = _source(30.0, 40.0, height=3.0), _source(30.0, 40.0, height=5.0)
+    pts = np.column_stack([np.zeros(50), np.linspace(0.0, 200.0, 50)])
+    built = []
+    make = halfspace._Table.__init__
+    monkeypatch.setattr(halfspace._Table, "__init__", lambda self, *a: (built.append(a[3:]), make(self, *a))[1])
+    halfspace._TABLES.clear()
+    low = placed.field_vector(src, pts, 2.0, F, GROUND, kind="vertical")
+    placed.field_vector(high, pts, np.linspace(0.0, 20.0, 50), F, GROUND, kind="vertical")
+    assert built == [(1000.0, 32.0)]
+    halfspace._TABLES.clear()
+    n2 = complex_permittivity(F, GROUND.permittivity, GROUND.conductivity_s_per_m)
+    halfspace.table(F, n2, "vertical", 1000.0, 60.0)  # a taller one first
+    np.testing.assert_allclose(placed.field_vector(src, pts, 2.0, F, GROUND, kind="vertical"), low, rtol=1e-9)
+    assert len(halfspace._TABLES) == 1  # the taller one served
+    halfspace._TABLES.clear()
+
+
 def test_the_memoised_sky_pattern_scaled_by_thevenin_is_the_pattern_worked_anew():
     # The pipeline keeps a route's sky pattern once and scales it to each coupling (another choke, a termination
     # tried, another antenna end): equal to the pattern worked with that coupling.
