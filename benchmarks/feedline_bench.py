@@ -1,12 +1,14 @@
 """Benchmark of placed sources and feed lines in ``rank`` (not a test): what 5 placed sources and 8 antennas with
 their feed lines add to a run (target: under 0.2 s), on an invented lot.
 
-    python benchmarks/feedline_bench.py [--repeat 3] [--compact]
+    python benchmarks/feedline_bench.py [--repeat 3] [--compact] [--cold]
 
 Three versions of one scenario are run in the process, each after a first run that warms the sky caches: no placed
 source and no feed line; the 5 placed sources; the sources and a feed line on every candidate.  Every in-run memo
 (snrgain.memo.Memo) is cleared before each timed run, so a run pays for its own fields and feed lines as a fresh
-``rank`` would.  Times are the process's CPU time (the machine may be shared; set OMP_NUM_THREADS=1 to keep numpy
+``rank`` would; with ``--cold`` the near field's tables of the Sommerfeld integrals (noisemodels.halfspace, one per
+frequency, ground and kind of dipole, kept across runs in a process) are emptied too, as a fresh process starts.
+Times are the process's CPU time (the machine may be shared; set OMP_NUM_THREADS=1 to keep numpy
 to one thread).  ``--compact`` makes four of the eight candidates compact (a short vertical, a flag, a small loop, a
 pair of phased verticals) instead of Beverages.  The best of ``--repeat`` runs is reported.
 """
@@ -110,40 +112,68 @@ def scenario(*, sources: bool, feed_lines: bool, compact: bool) -> str:
     return out
 
 
-def clear_memos() -> None:
+def clear_memos(cold: bool = False) -> None:
     """Empty every store of results kept within a run (snrgain.memo.forget): a timed run pays for its own fields and
-    feed lines as a fresh ``rank`` would; the sky maps' disk cache stays warm."""
+    feed lines as a fresh ``rank`` would; the sky maps' disk cache stays warm.  ``cold``: the near field's tables too
+    (:data:`TABLES`)."""
     from snrgain.memo import forget
 
     forget()
+    if cold:
+        TABLES.clear()
+        TABLES_BUILT.clear()
 
 
-def timed(text: str, repeat: int) -> float:
+def _count_tables():
+    """Count the near field's tables built (noisemodels.halfspace._Table) in :data:`TABLES_BUILT`."""
+    from noisemodels import halfspace
+
+    made = halfspace._Table.__init__
+
+    def counted(self, freq_hz, n2, kind, *args):
+        made(self, freq_hz, n2, kind, *args)
+        TABLES_BUILT.append((float(freq_hz), complex(n2), kind, *args))
+
+    halfspace._Table.__init__ = counted
+    return halfspace._TABLES
+
+
+TABLES_BUILT: list = []
+TABLES = _count_tables()
+
+
+def timed(text: str, repeat: int, cold: bool = False) -> tuple[float, int]:
+    """(the best CPU time of ``repeat`` runs [s], the near field's tables the last run built)."""
     import snrgain
 
     snrgain.evaluate(text)  # the first run: sky caches
     best = float("inf")
     for _ in range(repeat):
-        clear_memos()
+        clear_memos(cold)
+        TABLES_BUILT.clear()
         t = time.process_time()
         snrgain.evaluate(text)
         best = min(best, time.process_time() - t)
-    return best
+    return best, len(TABLES_BUILT)
 
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--repeat", type=int, default=3)
     ap.add_argument("--compact", action="store_true", help="four of the eight candidates compact")
+    ap.add_argument("--cold", action="store_true", help="empty the near field's tables before each timed run too")
     args = ap.parse_args()
-    base = timed(scenario(sources=False, feed_lines=False, compact=args.compact), args.repeat)
-    src = timed(scenario(sources=True, feed_lines=False, compact=args.compact), args.repeat)
-    both = timed(scenario(sources=True, feed_lines=True, compact=args.compact), args.repeat)
+    runs = []
+    for sources, feed_lines in ((False, False), (True, False), (True, True)):
+        text = scenario(sources=sources, feed_lines=feed_lines, compact=args.compact)
+        runs.append(timed(text, args.repeat, args.cold))
+    (base, _), (src, n_src), (both, n_both) = runs
+    tables = f"; near-field tables built per run: {n_src}, {n_both}" if args.cold else ""
     print(f"rank, no placed source, no feed line      {base:7.3f} s")
     print(f"rank, 5 placed sources                    {src:7.3f} s  (+{src - base:.3f} s)")
     print(
         f"rank, 5 sources and 8 feed lines          {both:7.3f} s  (+{both - base:.3f} s; "
-        f"feed lines +{both - src:.3f} s)"
+        f"feed lines +{both - src:.3f} s{tables})"
     )
     print(f"target: sources and feed lines add under 0.2 s: {'met' if both - base < 0.2 else 'NOT met'}")
 

@@ -33,8 +33,8 @@ integral is cut; its complex image -exp(-u0 d), d = 2 / (j k1), is taken out too
 
 The table (one per frequency, ground and kind of dipole, the last few kept): rho on asinh(rho / 1 m) steps of
 0.025 from 0 to at least 1 km (3 km when asked), zeta on 1 m steps from 0 up to the largest asked for (in 8 m
-blocks).  Close in (rho < 30 m) it holds the remainder, far out (rho > 100 m) the whole integrals (the closed
-forms' non-radiating terms would beat against the radiating part's phase between nodes there), a smooth step
+blocks, 32 m at least).  Close in (rho < 30 m) it holds the remainder, far out (rho > 100 m) the whole integrals
+(the closed forms' non-radiating terms would beat against the radiating part's phase between nodes there), a smooth step
 between; interpolated by tensor cubic Lagrange polynomials after taking out the phase exp(-j k0 R) and the 1 / R.
 Building one takes 0.02-0.09 s (one BLAS thread); a point then costs about 2 microseconds.  Within 1e-3 of the
 same integrals evaluated at the point (tests).  Beyond 3 km :mod:`noisemodels.nearground` uses its closed form
@@ -55,6 +55,9 @@ RHO_MAX_M = 3000.0
 RHO_LEAST_M = 1000.0
 """The least reach of a table (a few hundredths of a second more than a shorter one, and seldom rebuilt)."""
 ZETA_BLOCK_M = 8.0
+ZETA_LEAST_M = 32.0
+"""The least height a table reaches (source plus point): a source on a roof and an antenna 20 m up in one table, not
+three grown one after another as a run asks higher (a few milliseconds more than a lower one)."""
 RHO_SCALE_M = 1.0
 S_STEP = 0.025
 ZETA_STEP_M = 1.0
@@ -390,7 +393,7 @@ def table(freq_hz: float, n2: complex, kind: str, rho_max_m: float, zeta_max_m: 
     """The table of a frequency, ground and kind reaching ``rho_max_m`` and ``zeta_max_m`` (kept: the last few
     asked for; one reaching farther serves nearer points too)."""
     rho_top = next(e for e in _BLOCK_EDGES_M[1:] if e >= min(max(rho_max_m, RHO_LEAST_M), RHO_MAX_M))
-    zeta_top = ZETA_BLOCK_M * max(1, int(np.ceil(zeta_max_m / ZETA_BLOCK_M)))
+    zeta_top = ZETA_BLOCK_M * max(1, int(np.ceil(max(zeta_max_m, ZETA_LEAST_M) / ZETA_BLOCK_M)))
     base = (float(freq_hz), complex(n2), kind)
     for key, tab in _TABLES.items():
         if key[:3] == base and key[3] >= rho_top and key[4] >= zeta_top:

@@ -28,6 +28,9 @@ class Memo:
             held.popitem(last=False)
         return value
 
+    def __contains__(self, key: Hashable) -> bool:
+        return key in self._held
+
     def __len__(self) -> int:
         return len(self._held)
 

@@ -139,11 +139,23 @@ def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
     )
 
 
+def _halves_capacitance(upper, lower, radius_m: float, image: float) -> np.ndarray:
+    """:func:`snrgain.antennas.termloop.halves_capacitance`, kept by the outline, wire and ground (a moment solution:
+    the same loop over the same ground for every products of a run, a termination tried or a spread's ground)."""
+    from snrgain.antennas.termloop import halves_capacitance
+
+    def outline(points):
+        return tuple(tuple(float(v) for v in p) for p in points)
+
+    key = ("halves", outline(upper), outline(lower), float(radius_m), float(image))
+    return _memo(key, lambda: halves_capacitance(upper, lower, radius_m, image)).copy()
+
+
 def _flag_end(antenna, f: float) -> phys.End:
-    from snrgain.antennas.termloop import halves_capacitance, static_image_factor
+    from snrgain.antennas.termloop import static_image_factor
     from snrgain.physics import lines
 
-    c = halves_capacitance(
+    c = _halves_capacitance(
         antenna.upper, antenna.lower, antenna.params.radius_m, static_image_factor(antenna.ground, f)
     )
     c = c[::-1, ::-1]  # the shield on the lower half's terminal: P = lower, Q = upper
@@ -154,14 +166,14 @@ def _flag_end(antenna, f: float) -> phys.End:
 
 
 def _small_loop_end(antenna, f: float) -> phys.End:
-    from snrgain.antennas.termloop import halves_capacitance, loop_constants, static_image_factor
+    from snrgain.antennas.termloop import loop_constants, static_image_factor
 
     p = antenna.params
     z1, z2, w = p.height - p.loop_height / 2, p.height + p.loop_height / 2, p.width
     a = [(w / 2, z1), (0.0, z1), (0.0, z2), (w / 2, z2)]  # the halves, from the feed at the bottom middle
     b = [(w / 2, z1), (w, z1), (w, z2), (w / 2, z2)]
     image = static_image_factor(antenna.ground, f)
-    c = halves_capacitance(a, b, p.radius_m, image)
+    c = _halves_capacitance(a, b, p.radius_m, image)
     inductance = loop_constants(a, b, p.radius_m, image)[0] * p.turns**2
     r_rad, r_loss = antenna.input_resistance_ohm(f)
     z_in = complex(r_rad + r_loss, 2 * np.pi * f * inductance)
@@ -211,13 +223,15 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
     fl_powers, effects = {}, {}
     for src in (s for s in sc.noise.local if s.position_m is not None):
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
+        for kind, _ in placed.dipoles(src):
+            _prefetch_route_emfs([fl for fl, _, _ in out.values()], src, kind, f, ground)
         for k, (fl, c, coherent) in out.items():
             for kind, _ in placed.dipoles(src):
-                got = _fields(fl, antennas[k] if coherent else None, src, kind, f, ref_m, ground)
-                b = port_amplitude(f, _route_current(fl, c, src, kind, f, ground, got), c.load_ohm)
+                b = port_amplitude(f, _route_current(fl, c, src, kind, f, ground), c.load_ohm)
                 p[k] += abs(b) ** 2
                 if coherent:  # one source drives both: their currents in the load add as phasors
-                    a = _own_amplitude(antennas[k], src, kind, f, ref_m, ground, got)
+                    # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
+                    a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
                     d[k] += abs(a + b) ** 2 - abs(a) ** 2
                 else:
                     d[k] += abs(b) ** 2
@@ -228,8 +242,9 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
 
 MEMO_SIZE = 2048
 _MEMO = Memo(MEMO_SIZE)
-"""What does not change between calls on the same feed line or antenna (a termination search, the spreads): the
-EMFs along a route from a source, an antenna's own amplitude from it.  The least recently used go past MEMO_SIZE."""
+"""What does not change between calls on the same feed line (a termination search, the spreads): the EMFs along a
+route from a source and the current they drive through a unit coupling, a route's sky pattern.  The least recently
+used go past MEMO_SIZE.  The antenna's own amplitude from a source is snrgain.model.placed's (kept there)."""
 
 
 def _memo(key, make):
@@ -242,91 +257,45 @@ def _source_key(src, kind, freq_hz, ground):
     return (where, kind, float(freq_hz), g)
 
 
-def _wire_key(wire, reference_m) -> tuple:
-    """What a long wire's samples and leads depend on (not its loads)."""
-    from snrgain.model import placed
-
-    feed = tuple(float(v) for v in placed.antenna_point(wire, reference_m))
-    return (feed, float(wire.bearing_rad), float(wire.length_m), float(wire.wire_height_m()), bool(wire.has_leads))
-
-
-def _fields(fl, wire, src, kind, freq_hz, reference_m, ground) -> dict:
-    """The source's field at every point the feed line's route asks for (``"route"``: route_points) and, for a long
-    wire whose own amplitude is wanted (``wire``), at its samples and leads (``"wire"``: one array per group, in
-    the order snrgain.model.placed's reading asks for them; ``"wire_at"``: its feed and samples), in one call of the
-    field (each call's own cost
-    dominates at a few hundred points), memoised by the geometry and the source, not the loads."""
-    long_wire = wire is not None and wire.integrates_near_sources and hasattr(wire, "receiver_load_ohm")
-    key = (
-        "fields",
-        (fl.start_m, fl.end_m, fl.height_m, fl.depth_m),
-        _wire_key(wire, reference_m) if long_wire else None,
-        _source_key(src, kind, freq_hz, ground),
-    )
-
-    def evaluate():
-        groups = [phys.route_points(fl, phys.route_samples(fl, freq_hz, _closest(fl, src)))]
-        feed = x = None
-        if long_wire:
-            feed, x, more = _wire_points(wire, src, freq_hz, reference_m)
-            groups += more
-        e = placed_field(
-            src, np.vstack([g[0] for g in groups]), np.concatenate([g[1] for g in groups]), freq_hz, ground, kind
-        )
-        parts = np.split(e, np.cumsum([len(g[0]) for g in groups])[:-1])
-        return {"route": parts[0], "wire": parts[1:] if long_wire else None, "wire_at": (feed, x)}
-
-    return _memo(key, evaluate)
-
-
-def _replay(parts, src, kind, freq_hz, ground):
-    """A field ``field(points, heights)`` that gives ``parts`` in turn (the arrays :func:`_fields` worked for the
-    calls a reading makes, in their order) and works the field itself for a call it holds nothing of that size."""
-    queue = list(parts or ())
+def _route_emf(fl, src, kind, freq_hz, ground):
+    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole (its run and leads in one call of the
+    field), memoised by route and source: the route's own field, worked once per route, source and ground."""
+    key = _route_emf_key(fl, src, kind, freq_hz, ground)
 
     def field(pts, heights):
-        if queue and len(queue[0]) == len(pts):
-            return queue.pop(0)
         return placed_field(src, pts, heights, freq_hz, ground, kind)
 
-    return field
-
-
-def _wire_points(wire, src, freq_hz, reference_m):
-    """(feed [m], samples x [m], the point groups (points, heights)) at which :func:`snrgain.model.placed`'s
-    reading of a long wire takes a source's field: its samples along the wire, then the leads (as
-    snrgain.model.placed._currents_on builds them)."""
-    from snrgain.model import placed
-    from snrgain.physics.quadrature import gauss_legendre
-
-    feed = np.asarray(placed.antenna_point(wire, reference_m), dtype=float)
-    b = wire.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    to_src = np.asarray(src.position_m, dtype=float) - feed
-    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, wire.length_m) * u)))
-    x = placed.wire_samples(wire.length_m, freq_hz, float(np.hypot(closest, src.height_m)))
-    feeds = feed[None, :]
-    h = wire.wire_height_m()
-    pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-    groups = [(pts, np.full(len(pts), h))]
-    if wire.has_leads and h > 0:
-        t, _ = gauss_legendre(placed.LEAD_POINTS)
-        zs = (t + 1) * h / 2
-        ends = np.concatenate([feeds, feeds + wire.length_m * u[None, :]])
-        groups.append((np.repeat(ends, placed.LEAD_POINTS, axis=0), np.tile(zs, 2)))
-    return feed, x, groups
-
-
-def _route_emf(fl, src, kind, freq_hz, ground, got=None):
-    """:func:`snrgain.physics.feedline.route_emf` of a placed source's dipole, memoised by route and source
-    (``got``: :func:`_fields`' arrays)."""
-    key = ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
-    parts = None if got is None else [got["route"]]
-    field = _replay(parts, src, kind, freq_hz, ground)
     return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
 
 
-def _route_current(fl, c, src, kind, freq_hz, ground, got=None) -> complex:
+def _route_emf_key(fl, src, kind, freq_hz, ground) -> tuple:
+    return ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+
+
+def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
+    """Put the :func:`_route_emf` of every route of ``routes`` not held yet in the memo, the source's field at all of
+    their points worked in one call (the routes of a run one source at a time: a call's own cost is that of a few
+    hundred points)."""
+    todo, seen = [], set()
+    for fl in routes:
+        key = _route_emf_key(fl, src, kind, freq_hz, ground)
+        if key in _MEMO or key in seen:
+            continue
+        seen.add(key)
+        x = phys.route_samples(fl, freq_hz, _closest(fl, src))
+        todo.append((key, fl, phys.route_points(fl, x)))
+    if len(todo) < 2:
+        return
+    e = placed_field(
+        src, np.concatenate([t[2][0] for t in todo]), np.concatenate([t[2][1] for t in todo]), freq_hz, ground, kind
+    )
+    parts = np.split(e, np.cumsum([len(t[2][0]) for t in todo])[:-1])
+    for (key, fl, _), part in zip(todo, parts):
+        # route_emf takes the field once, at route_points of the same samples: the part worked for this route
+        _memo(key, lambda fl=fl, part=part: phys.route_emf(fl, freq_hz, lambda *_: part, closest_m=_closest(fl, src)))
+
+
+def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
     """:func:`snrgain.physics.feedline.emf_current` of a placed source's dipole with coupling ``c``: worked once per
     route and source with a unit coupling and scaled to ``c`` by Thevenin's theorem (a termination tried, a choke,
     another antenna end on the same route cost one product; :func:`snrgain.physics.feedline.current_scale`)."""
@@ -335,51 +304,18 @@ def _route_current(fl, c, src, kind, freq_hz, ground, got=None) -> complex:
 
     def make():
         unit = phys.unit_coupling(c)
-        return unit, phys.emf_current(fl, unit, *_route_emf(fl, src, kind, freq_hz, ground, got))
+        return unit, phys.emf_current(fl, unit, *_route_emf(fl, src, kind, freq_hz, ground))
 
     unit, current = _memo(key, make)
     return complex(current * phys.current_scale(unit, c))
 
 
 def placed_field(src, pts, heights, freq_hz, ground, kind):
+    """A placed source's field at a route's points (snrgain.model.placed.field_vector; what is made of it is kept:
+    :func:`_route_emf`)."""
     from snrgain.model import placed
 
     return placed.field_vector(src, pts, heights, freq_hz, ground, kind=kind)
-
-
-def _own_amplitude(antenna, src, kind, freq_hz, reference_m, ground, got=None) -> complex:
-    """The antenna's own amplitude from a placed source's dipole (snrgain.model.placed.received_amplitudes, its
-    first), memoised by the antenna's parameters (its termination and place among them).  A long wire's: the
-    source's field along it (the costly part) memoised by its geometry alone, so a termination search or a turns
-    ratio tried pays only the line's transfer (:func:`_wire_amplitude`)."""
-    from snrgain.model import placed
-
-    if antenna.integrates_near_sources and hasattr(antenna, "receiver_load_ohm"):
-        return _wire_amplitude(antenna, src, kind, freq_hz, reference_m, ground, got)
-    key = (
-        "own",
-        type(antenna).__name__,
-        antenna.params.model_dump_json(),
-        tuple(reference_m),
-        _source_key(src, kind, freq_hz, ground),
-    )
-    return _memo(key, lambda: placed.received_amplitudes(antenna, src, freq_hz, reference_m, ground, kind=kind)[0])
-
-
-def _wire_amplitude(wire, src, kind, freq_hz, reference_m, ground, got=None) -> complex:
-    """:func:`snrgain.model.placed.received_amplitudes` of a long wire (the same samples and reciprocity integral,
-    snrgain.model.placed.wire_currents_in_field), with the source's field at its samples from :func:`_fields`
-    (``got``; worked here without it)."""
-    from snrgain.antennas.longwire import port_response
-    from snrgain.model import placed
-
-    feed, x = _wire_points(wire, src, freq_hz, reference_m)[:2] if got is None else got["wire_at"]
-    field = _replay(None if got is None else got["wire"], src, kind, freq_hz, ground)
-    i_f = placed.wire_currents_in_field(wire, freq_hz, feed[None, :], x, field)[0]
-    e = port_response(
-        freq_hz, np.array([i_f]), load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=np.array([src.elevation_rad])
-    )
-    return complex(e[0])
 
 
 def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex:

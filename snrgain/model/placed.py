@@ -49,7 +49,9 @@ antenna's transmit currents are the same at every place, so the field at every s
 One
 place at a time works the field directly, point by point, as ``rank`` does (inside :func:`tabled`, layout's own
 search reads the tables there too); the EMFs along a wire at one place are kept for the next wire standing there
-(the loads do not enter them).
+(the loads do not enter them), the wires of a run worked one call of the field per source and ground
+(:func:`_prefetch_wire_emfs`), and each antenna's amplitudes kept by the antenna object for its feed line
+(:data:`_AMPLITUDES`, read by snrgain.model.feedline).
 """
 
 from __future__ import annotations
@@ -191,7 +193,9 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, 
 def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -> np.ndarray:
     """The whole field (N, 3) [east, north, up] of one of a placed source's dipoles at plan points (N, 2) at
     ``height_m`` above the soil (a scalar or (N,)), normalised as :mod:`noisemodels.nearground` and scaled by the
-    square root of the dipole's share."""
+    square root of the dipole's share.  Worked, not kept: each caller keeps what it makes of it (a wire's EMFs in
+    :data:`_EMFS`, a feed line's in snrgain.model.feedline, the field at a compact antenna's segments through
+    :func:`_kept_field`)."""
     share = dict(dipoles(src)).get(kind, 0.0)
     p = np.atleast_2d(np.asarray(points_m, dtype=float))
     z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
@@ -199,29 +203,41 @@ def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) 
     axis = orientation_rad(src) if kind == "horizontal" else 0.0
     eps = None if ground is None else ground.permittivity
     sig = None if ground is None else ground.conductivity_s_per_m
+    e = nearground.field(
+        freq_hz,
+        rel,
+        source_height_m=src.height_m,
+        kind=kind,
+        axis_rad=axis,
+        permittivity=eps,
+        conductivity_s_per_m=sig,
+    )
+    return e * np.sqrt(share)
 
-    def make():
-        e = nearground.field(
-            freq_hz,
-            rel,
-            source_height_m=src.height_m,
-            kind=kind,
-            axis_rad=axis,
-            permittivity=eps,
-            conductivity_s_per_m=sig,
-        )
-        return e * np.sqrt(share)
 
-    if rel.size > 3 * FIELD_MEMO_POINTS:
-        return make()
-    key = (float(src.height_m), kind, float(axis), float(share), float(freq_hz), eps, sig, rel.tobytes())
-    return _FIELDS.get(key, make)
+def _kept_field(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -> np.ndarray:
+    """:func:`field_vector` kept in :data:`_FIELDS` by the points asked (a compact antenna that does not move is asked
+    at its segments again for every resistor a termination search tries)."""
+    p = np.ascontiguousarray(np.atleast_2d(np.asarray(points_m, dtype=float)))
+    z = np.ascontiguousarray(np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),)))
+    if p.size > 2 * FIELD_MEMO_POINTS:
+        return field_vector(src, p, z, freq_hz, ground, kind=kind)
+    key = (
+        field_vector,  # the function itself (a test may put another in its place)
+        _source_key(src, kind),
+        float(dict(dipoles(src)).get(kind, 0.0)),
+        _ground_key(ground),
+        float(freq_hz),
+        p.tobytes(),
+        z.tobytes(),
+    )
+    return _FIELDS.get(key, lambda: field_vector(src, p, z, freq_hz, ground, kind=kind))
 
 
 _FIELDS = Memo(64)
-"""A placed source's field at the points last asked (:func:`field_vector`): a compact antenna that does not move is
-asked at its segments again for every resistor a termination search tries (a long wire's EMFs are kept whole in
-:data:`_EMFS`)."""
+"""A placed source's field at a compact antenna's segments (:func:`_kept_field`); what else is made of the field is
+kept whole where it is made: a long wire's EMFs in :data:`_EMFS`, a feed line's in snrgain.model.feedline, an
+antenna's amplitudes in :data:`_AMPLITUDES`."""
 FIELD_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
@@ -266,8 +282,15 @@ def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndar
     if len(feeds) > 1:
         up = leads if 2 * len(feeds) * LEAD_POINTS >= LEAD_TABLE_MIN else None
         return _emfs(wire, feeds, x, u, field, along if many else None, up)
-    h = wire.wire_height_m()
-    key = (
+    key = _emfs_key(wire, src, freq_hz, feeds, ground, x, u, kind, many, least)
+    if many:
+        return _EMFS.get(key, lambda: _emfs(wire, feeds, x, u, field, along))
+    return _EMFS.get(key, lambda: _emfs_one_call(wire, src, freq_hz, feeds, ground, x, u, kind))
+
+
+def _emfs_key(wire, src, freq_hz, feeds, ground, x, u, kind, many: bool, least: int) -> tuple:
+    """What a placed source's EMFs along a wire at one place (``feeds`` (1, 2)) depend on: :data:`_EMFS`' key."""
+    return (
         field_vector,  # the function itself (a test may put another in its place)
         many,
         least,
@@ -279,11 +302,85 @@ def _source_emfs(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndar
         float(u[0]),
         float(u[1]),
         float(wire.length_m),
-        float(h),
+        float(wire.wire_height_m()),
         bool(wire.has_leads),
         np.asarray(x, dtype=float).tobytes(),
     )
-    return _EMFS.get(key, lambda: _emfs(wire, feeds, x, u, field, along if many else None))
+
+
+def _emf_points(wire, feeds, x, u) -> tuple[np.ndarray, np.ndarray]:
+    """(points (M, 2), heights (M,)) at which :func:`_emfs` takes the field of a wire at one place: along it at its
+    height, then up its leads (feed end first, LEAD_POINTS each) when it has them."""
+    h = wire.wire_height_m()
+    pts = (feeds[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
+    if not (wire.has_leads and h > 0):
+        return pts, np.full(len(pts), h)
+    t, _ = _lead_rule()
+    ends = np.concatenate([feeds, feeds + wire.length_m * u[None, :]])
+    pts = np.concatenate([pts, np.repeat(ends, LEAD_POINTS, axis=0)])
+    return pts, np.concatenate([np.full(len(x) * len(feeds), h), np.tile((t + 1) * h / 2, len(ends))])
+
+
+def _emfs_from(wire, feeds, x, u, e: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
+    """:func:`_emfs` of a wire at one place from the field ``e`` at :func:`_emf_points`' points."""
+    h = wire.wire_height_m()
+    n = len(x) * len(feeds)
+
+    def along(_pts, _h):  # the points along the wire: the first n
+        return e[:n, 0] * u[0] + e[:n, 1] * u[1]
+
+    def leads(_ends, _h):  # up each lead: LEAD_POINTS each, feed end first (as _emfs orders them)
+        _, wq = _lead_rule()
+        return (e[n:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
+
+    return _emfs(wire, feeds, x, u, None, along, leads if wire.has_leads and h > 0 else None)
+
+
+def _emfs_one_call(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndarray, np.ndarray | None]:
+    """:func:`_emfs` of a wire at one place, the field along it and up its leads worked in one call of
+    :func:`field_vector` (a call's own cost is that of a few hundred points) and not kept there (the EMFs are)."""
+    e = field_vector(src, *_emf_points(wire, feeds, x, u), freq_hz, ground, kind=kind)
+    return _emfs_from(wire, feeds, x, u, e)
+
+
+def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray) -> None:
+    """Put in :data:`_EMFS` the EMFs of every long wire of ``antennas`` standing alone at its place whose power is
+    not known (NaN in ``p``) and whose EMFs are not held, the source's field at all of them worked in one call of
+    :func:`field_vector` (the wires of a run one source at a time: a call's own cost is that of a few hundred
+    points).  The keys are those :func:`wire_feed_current` asks for (the same samples); one it would not ask for
+    is only work wasted, never a wrong EMF (the samples are in the key)."""
+    least = table_min_points()
+    todo, seen = [], set()
+    for k, a in enumerate(antennas):
+        if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
+            continue
+        feeds = np.atleast_2d(np.asarray(antenna_point(a, reference_m), dtype=float))
+        b = a.bearing_rad
+        u = np.array([np.sin(b), np.cos(b)])
+        to_src = np.asarray(src.position_m)[None, :] - feeds
+        along = np.clip(to_src @ u, 0.0, a.length_m)
+        closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
+        x = wire_samples(a.length_m, freq_hz, float(np.hypot(closest[0], src.height_m)))
+        if len(x) >= least:
+            continue
+        key = _emfs_key(a, src, freq_hz, feeds, ground, x, u, kind, False, least)
+        if key in _EMFS or key in seen:
+            continue
+        seen.add(key)
+        todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u)))
+    if len(todo) < 2:
+        return
+    e = field_vector(
+        src,
+        np.concatenate([t[5][0] for t in todo]),
+        np.concatenate([t[5][1] for t in todo]),
+        freq_hz,
+        ground,
+        kind=kind,
+    )
+    parts = np.split(e, np.cumsum([len(t[5][0]) for t in todo])[:-1])
+    for (key, a, feeds, x, u, _), part in zip(todo, parts):
+        _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
 
 
 def _source_key(src, kind: str) -> tuple:
@@ -612,7 +709,33 @@ def received_amplitudes(
     :func:`received_power`.  A long wire sums the field along its length (one amplitude, both polarisations in its
     current); a compact antenna takes its response toward the source times the field where it stands; a
     composite (a phasing unit) adds its parts' amplitudes through its weights, each part hearing the source where
-    it stands, so a unit that passes one antenna alone hears exactly what that antenna hears."""
+    it stands, so a unit that passes one antenna alone hears exactly what that antenna hears.
+
+    Kept in :data:`_AMPLITUDES` by the antenna object itself and the rest of what enters them: :func:`pickup` works
+    them out, the antenna's feed line (snrgain.model.feedline) reads them."""
+    key = (
+        id(antenna),
+        field_vector,  # the function itself (a test may put another in its place)
+        _source_key(src, kind),
+        float(src.elevation_rad),
+        _ground_key(ground),
+        float(freq_hz),
+        tuple(float(c) for c in reference_m),
+        None if at_m is None else tuple(float(c) for c in at_m),
+    )
+    held = _AMPLITUDES.get(
+        key, lambda: (antenna, _received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind))
+    )
+    return held[1]
+
+
+_AMPLITUDES = Memo(512)
+"""An antenna's amplitudes from a placed source's dipole (:func:`received_amplitudes`), each held with the antenna
+object it belongs to (so its id, in the key, is not given to another while held): what :func:`pickup` worked out
+for an antenna is read again, not worked again, by its feed line and by a termination search's next products."""
+
+
+def _received_amplitudes(antenna, src, freq_hz: float, reference_m, ground, *, at_m, kind) -> tuple[complex, complex]:
     from snrgain.antennas.base import Antenna
     from snrgain.antennas.longwire import port_response
 
@@ -687,7 +810,7 @@ def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str, segme
     voltage is the same for both, so it cancels)."""
     pts, dirs, cur = antenna.transmit_segments(freq_hz) if segments is None else segments
     pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
-    e = field_vector(src, at[None, :] + pts[:, :2], pts[:, 2], freq_hz, ground, kind=kind)
+    e = _kept_field(src, at[None, :] + pts[:, :2], pts[:, 2], freq_hz, ground, kind=kind)
     v_src = np.einsum("ni,ni,n->", e, dirs, cur)
     az = float(bearing_to(src, at[None, :])[0])
     el = float(src.elevation_rad)
@@ -720,6 +843,8 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
         _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        for kind, _ in dipoles(src):
+            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
@@ -788,7 +913,7 @@ def _through_currents_many(antenna, src, freq_hz: float, at, ground, kind: str, 
     pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
     n, m = len(at), len(pts)
     where = (at[:, None, :] + pts[None, :, :2]).reshape(-1, 2)
-    e = field_vector(src, where, np.tile(pts[:, 2], n), freq_hz, ground, kind=kind).reshape(n, m, 3)
+    e = _kept_field(src, where, np.tile(pts[:, 2], n), freq_hz, ground, kind=kind).reshape(n, m, 3)
     v_src = np.einsum("kni,ni,n->k", e, dirs, cur)
     az = bearing_to(src, at)
     el = float(src.elevation_rad)
