@@ -733,7 +733,7 @@ FLAG_MISSES = {
     ("flag-s150-end", "choked"): 2.75,
     # The 60 m run unchoked: 3.1 dB high (18.8 against 15.7 dB), at the bound of 3 dB plus NEC's spread (3.14) with the
     # flag read through its equivalent rectangle; 18.9 dB (3.18 over) since the flag reads near fields through its
-    # line along the loop's own halves (a source's field on the flag itself, not the shield's, moved by 0.1 dB).
+    # line along the loop's own halves (the flag's own share of the source changed with it; not split further).
     ("flag-s60", "shield"): 3.7,
 }
 
