@@ -215,8 +215,12 @@ def halves_capacitance(upper, lower, radius_m: float, image: float = -1.0) -> np
     [[upper, upper-lower], [lower-upper, lower]], the charge on each for unit potential on each (the moment solution
     of :func:`loop_constants`; the common-mode capacitance to earth is the sum of its entries)."""
     _, p_own, p_image, heights, nu = _loop_matrices(_key(upper), _key(lower), float(radius_m))
-    q = np.linalg.solve((p_own + image * p_image) / (4 * np.pi * EPS0_F_PER_M), np.eye(len(heights)))
-    return np.array([[q[:nu, :nu].sum(), q[:nu, nu:].sum()], [q[nu:, :nu].sum(), q[nu:, nu:].sum()]])
+    # The charges for unit potential on each half (two right-hand sides: the whole inverse is not needed)
+    ones = np.zeros((len(heights), 2))
+    ones[:nu, 0] = 1.0
+    ones[nu:, 1] = 1.0
+    q = np.linalg.solve((p_own + image * p_image) / (4 * np.pi * EPS0_F_PER_M), ones)
+    return np.array([[q[:nu, 0].sum(), q[:nu, 1].sum()], [q[nu:, 0].sum(), q[nu:, 1].sum()]])
 
 
 def _key(points) -> tuple:
