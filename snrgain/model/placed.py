@@ -57,6 +57,7 @@ search reads the tables there too); the EMFs along a wire at one place are kept 
 from __future__ import annotations
 
 from contextlib import contextmanager
+from functools import lru_cache
 
 import numpy as np
 
@@ -149,13 +150,25 @@ def antenna_point(antenna, reference_m) -> np.ndarray:
     return np.asarray(reference_m if p is None else p, dtype=float)
 
 
+WIRE_LEAST_SAMPLES = 400
+"""The fewest steps along a wire (:func:`wire_samples`)."""
+
+
 def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarray:
     """Sample distances along a wire [m]: finer than a 40th of a wavelength and a quarter of the closest
-    approach to the source, at least 400 points, at most 40,000."""
+    approach to the source, at least 400 steps, at most 40,000, an even number of them (Simpson's rule,
+    snrgain.physics.quadrature.samples_rule).  A read-only array, shared by the calls that ask for the same."""
     lam = C_M_PER_S / freq_hz
     step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    n = int(np.clip(np.ceil(length_m / step), 400, 40_000)) + 1
-    return np.linspace(0.0, length_m, n)
+    n = int(np.clip(np.ceil(length_m / step), WIRE_LEAST_SAMPLES, 40_000))
+    return _even_steps(float(length_m), n + n % 2)
+
+
+@lru_cache(maxsize=256)
+def _even_steps(length_m: float, steps: int) -> np.ndarray:
+    x = np.linspace(0.0, length_m, steps + 1)
+    x.flags.writeable = False
+    return x
 
 
 def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:

@@ -95,7 +95,7 @@ import numpy as np
 
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
-from snrgain.physics.quadrature import gauss_legendre
+from snrgain.physics.quadrature import gauss_legendre, samples_rule
 from snrgain.physics.reciprocity import LEAD_POINTS
 
 CABLES: dict[str, tuple[float, float]] = {
@@ -361,13 +361,17 @@ def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_r
     return np.abs(ev) ** 2 + np.abs(eh) ** 2
 
 
+ROUTE_LEAST_SAMPLES = 200
+"""The fewest steps along a run (:func:`route_samples`)."""
+
+
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
     """Distances along the run [m]: finer than a 40th of a wavelength and a quarter of the closest approach of a
     source, at least 200 points, at most 20,000."""
     lam = C_M_PER_S / freq_hz
     step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    n = int(np.clip(np.ceil(fl.length_m / step), 200, 20_000)) + 1
-    return np.linspace(0.0, fl.length_m, n)
+    n = int(np.clip(np.ceil(fl.length_m / step), ROUTE_LEAST_SAMPLES, 20_000))
+    return np.linspace(0.0, fl.length_m, n + n % 2 + 1)  # an even number of steps (Simpson's rule)
 
 
 def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
@@ -409,7 +413,7 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
     z_a, z_s = c.z_end, fl.station_ground_ohm
     d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
     transfer = (z0 * np.cosh(g * (L - x)) + z_s * np.sinh(g * (L - x))) / d
-    current = np.trapezoid(emf * transfer, x)
+    current = (emf * transfer) @ samples_rule(x)
     current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
     return complex(-current * c.divider)
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from snrgain.physics.quadrature import gauss_legendre
+from snrgain.physics.quadrature import gauss_legendre, samples_rule
 
 LEAD_POINTS = 6
 """Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
@@ -58,7 +58,7 @@ def through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
     else:
         d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
         transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
-    current = np.trapezoid(emf * transfer[None, :], x, axis=1)
+    current = (emf * transfer[None, :]) @ samples_rule(x)
     if lead is not None:
         current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
