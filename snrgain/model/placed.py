@@ -173,7 +173,7 @@ def _even_steps(length_m: float, steps: int) -> np.ndarray:
 
 def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:
     """The feed current [A] of a long wire driven by a placed source's field (module docstring), for unit field
-    at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (trapezoid rule)."""
+    at 1 m in the source's far field; ``x_m`` overrides the sample points along the wire (samples_rule)."""
     return complex(wire_feed_currents(wire, src, freq_hz, np.atleast_2d(feed_m), ground, x_m=x_m, kind=kind)[0])
 
 

@@ -421,7 +421,7 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
 def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m: float) -> complex:
     """The current [A] through the receiver's load from an incident field given as ``field(points (N, 2), heights
     (N,)) -> (N, 3)`` [east, north, up] (a placed source's, :func:`snrgain.model.placed.field_vector`): the EMF
-    along the run (trapezoid rule on :func:`route_samples`) and up and down its leads, through the line's
+    along the run (Simpson's rule on :func:`route_samples`) and up and down its leads, through the line's
     transfer function to the antenna end, times the current divider.
 
     Its sign is the antenna's own feed current's (snrgain.antennas.longwire: up the feed lead through the load):
