@@ -316,3 +316,36 @@ def test_direction_to_pixel_is_healpys_ang2pix(nside):
         np.testing.assert_array_equal(
             sphere.direction_to_pixel(nside, g.azimuth_rad, g.elevation_rad), np.arange(g.size)
         )
+
+
+def test_half_space_tables_are_kept_on_disk_and_read_back(cache_dir, monkeypatch):
+    # A table of the ground's field (noisemodels.halfspace) is kept in the same cache: a later run (its in-memory
+    # tables gone) reads it back bit for bit without integrating; another ground is another entry; opt-out reads
+    # nothing.
+    from noisemodels import halfspace, skycache
+
+    n2 = complex(15.0, -98.2)
+    rho, zeta = np.array([3.0, 40.0, 700.0]), np.array([2.0, 5.0, 1.0])
+    monkeypatch.setattr(halfspace, "_TABLES", type(halfspace._TABLES)())
+    first = halfspace.reflected(1.83e6, n2, rho, zeta, "vertical")
+    (entry,) = cache_dir.glob("halfspace-*.npy")
+    monkeypatch.setattr(halfspace, "_TABLES", type(halfspace._TABLES)())
+
+    def no_integral(*a, **k):
+        raise AssertionError("the table was integrated again")
+
+    real = halfspace.remainder_grid
+    monkeypatch.setattr(halfspace, "remainder_grid", no_integral)
+    np.testing.assert_array_equal(halfspace.reflected(1.83e6, n2, rho, zeta, "vertical"), first)
+    monkeypatch.setattr(halfspace, "remainder_grid", real)
+    halfspace.reflected(1.83e6, complex(15.0, -99.0), rho, zeta, "vertical")
+    assert len(list(cache_dir.glob("halfspace-*.npy"))) == 2
+    # The key holds the module's source: a table from other code is not used.
+    key = halfspace._disk_key(1.83e6, n2, "vertical", 1000.0, 8.0)
+    assert entry.name == skycache.key_name("halfspace", key)
+    assert skycache.key_name("halfspace", {**key, "source": "other"}) != entry.name
+    monkeypatch.setenv(skycache.ENV_OFF, "1")
+    monkeypatch.setattr(halfspace, "_TABLES", type(halfspace._TABLES)())
+    monkeypatch.setattr(halfspace, "remainder_grid", no_integral)
+    with pytest.raises(AssertionError, match="integrated again"):
+        halfspace.reflected(1.83e6, n2, rho, zeta, "vertical")
