@@ -28,6 +28,7 @@ import numpy as np
 
 from noisemodels.sky import SkyComponent, weighted_temperature_k
 from noisemodels.sphere import Directions
+from snrgain.memo import Memo
 
 
 def hemisphere_mean_gain(gain_on_grid, grid: Directions) -> float:
@@ -140,17 +141,7 @@ def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> T
     nm, nh = len(skies.months), len(skies.utc_hours)
     out = np.zeros((len(skies.names), len(gains.caches), nm, nh))
     index = {n: i for i, n in enumerate(skies.names)}
-    # Cells whose component shares one set of directions are integrated at once: the antennas' gains on that set
-    # (antennas, directions) times the cells' brightness (directions, cells), one product per set.
-    groups: dict[tuple[int, int], tuple] = {}
-    for (i, j), comps in skies.maps.items():
-        for c in comps:
-            key = (index[c.name], id(c.directions))
-            groups.setdefault(key, (c.directions, c.name, []))[2].append((i, j, c.weight_k_sr))
-    for (row, _), (directions, name, cells) in groups.items():
-        w = np.array([wk for _, _, wk in cells])  # (cells, directions)
-        ii = np.array([i for i, _, _ in cells])
-        jj = np.array([j for _, j, _ in cells])
+    for row, directions, name, w, ii, jj in _sky_groups(skies, index):
         if name in pickup:  # heard through the reference's pattern, then each antenna's share
             t = _product(np.atleast_2d(gains.caches[0].on(directions)), w) / (4.0 * np.pi)  # (1, cells)
             out[row, :, ii, jj] = (pickup[name][:, None] * t).T
@@ -160,6 +151,37 @@ def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> T
     for name, db in (strength_db or {}).items():
         out[index[name]] *= 10.0 ** (db / 10.0)
     return Temperatures(out, out.sum(axis=0))
+
+
+_GROUPS = Memo(4)
+"""A sky's cells grouped for :func:`sky_temperatures`, by the sky (held, so its id stays its own)."""
+
+
+def _sky_groups(skies, index: dict) -> list[tuple]:
+    """Cells whose component shares one set of directions, to be integrated at once: the antennas' gains on that set
+    (antennas, directions) times the cells' brightness (cells, directions), one product per set.  A list of (row,
+    directions, name, brightness (cells, directions), month indices, hour indices); stacked once per sky (every
+    pass of the products under one sky reads the same)."""
+
+    def make():
+        groups: dict[tuple[int, int], tuple] = {}
+        for (i, j), comps in skies.maps.items():
+            for c in comps:
+                key = (index[c.name], id(c.directions))
+                groups.setdefault(key, (c.directions, c.name, []))[2].append((i, j, c.weight_k_sr))
+        out = []
+        for (row, _), (directions, name, cells) in groups.items():
+            w = np.array([wk for _, _, wk in cells])  # (cells, directions)
+            w.flags.writeable = False
+            ii = np.array([i for i, _, _ in cells])
+            out.append((row, directions, name, w, ii, np.array([j for _, j, _ in cells])))
+        return skies, out
+
+    held, out = _GROUPS.get(id(skies), make)
+    if held is not skies:  # a sky let go, another at its address: made afresh
+        _GROUPS.clear()
+        held, out = _GROUPS.get(id(skies), make)
+    return out
 
 
 SMALL_PRODUCT = 20_000_000
