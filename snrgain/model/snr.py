@@ -141,13 +141,13 @@ def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> T
     nm, nh = len(skies.months), len(skies.utc_hours)
     out = np.zeros((len(skies.names), len(gains.caches), nm, nh))
     index = {n: i for i, n in enumerate(skies.names)}
-    for row, directions, name, w, ii, jj in _sky_groups(skies, index):
+    for row, directions, name, w, of_cell, ii, jj in _sky_groups(skies, index):
         if name in pickup:  # heard through the reference's pattern, then each antenna's share
-            t = _product(np.atleast_2d(gains.caches[0].on(directions)), w) / (4.0 * np.pi)  # (1, cells)
+            t = _product(np.atleast_2d(gains.caches[0].on(directions)), w)[:, of_cell] / (4.0 * np.pi)  # (1, cells)
             out[row, :, ii, jj] = (pickup[name][:, None] * t).T
         else:
             g = np.array([cache.on(directions) for cache in gains.caches])  # (antennas, directions)
-            out[row, :, ii, jj] = (_product(g, w) / (4.0 * np.pi)).T
+            out[row, :, ii, jj] = (_product(g, w)[:, of_cell] / (4.0 * np.pi)).T
     for name, db in (strength_db or {}).items():
         out[index[name]] *= 10.0 ** (db / 10.0)
     return Temperatures(out, out.sum(axis=0))
@@ -160,8 +160,10 @@ _GROUPS = Memo(4)
 def _sky_groups(skies, index: dict) -> list[tuple]:
     """Cells whose component shares one set of directions, to be integrated at once: the antennas' gains on that set
     (antennas, directions) times the cells' brightness (cells, directions), one product per set.  A list of (row,
-    directions, name, brightness (cells, directions), month indices, hour indices); stacked once per sky (every
-    pass of the products under one sky reads the same)."""
+    directions, name, the distinct brightness maps (maps, directions), each cell's map (cells,), month indices,
+    hour indices); made once per sky (every pass of the products under one sky reads the same).  A component the
+    same at every hour (man-made noise, a placed source; the galactic noise where the ionosphere screens it) is
+    integrated once, not once per cell: the same sums, so the same temperatures to the bit."""
 
     def make():
         groups: dict[tuple[int, int], tuple] = {}
@@ -172,9 +174,12 @@ def _sky_groups(skies, index: dict) -> list[tuple]:
         out = []
         for (row, _), (directions, name, cells) in groups.items():
             w = np.array([wk for _, _, wk in cells])  # (cells, directions)
-            w.flags.writeable = False
+            maps, of_cell = np.unique(w, axis=0, return_inverse=True)
+            if len(maps) == len(w):  # every cell its own map: kept in the cells' order
+                maps, of_cell = w, np.arange(len(w))
+            maps.flags.writeable = False
             ii = np.array([i for i, _, _ in cells])
-            out.append((row, directions, name, w, ii, np.array([j for _, j, _ in cells])))
+            out.append((row, directions, name, maps, of_cell.ravel(), ii, np.array([j for _, j, _ in cells])))
         return skies, out
 
     held, out = _GROUPS.get(id(skies), make)
