@@ -174,12 +174,15 @@ def _sky_groups(skies, index: dict) -> list[tuple]:
         out = []
         for (row, _), (directions, name, cells) in groups.items():
             w = np.array([wk for _, _, wk in cells])  # (cells, directions)
-            maps, of_cell = np.unique(w, axis=0, return_inverse=True)
-            if len(maps) == len(w):  # every cell its own map: kept in the cells' order
-                maps, of_cell = w, np.arange(len(w))
+            if np.array_equal(w, np.broadcast_to(w[:1], w.shape)):  # the same map at every hour
+                maps, of_cell = w[:1], np.zeros(len(w), dtype=int)
+            else:  # the distinct maps, in order of first use (by their bytes: exact equality)
+                first: dict[bytes, int] = {}
+                of_cell = np.array([first.setdefault(m.tobytes(), len(first)) for m in w])
+                maps = w if len(first) == len(w) else w[[list(of_cell).index(k) for k in range(len(first))]]
             maps.flags.writeable = False
             ii = np.array([i for i, _, _ in cells])
-            out.append((row, directions, name, maps, of_cell.ravel(), ii, np.array([j for _, j, _ in cells])))
+            out.append((row, directions, name, maps, of_cell, ii, np.array([j for _, j, _ in cells])))
         return skies, out
 
     held, out = _GROUPS.get(id(skies), make)
