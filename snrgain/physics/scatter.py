@@ -297,6 +297,20 @@ def field_vector_at(tx: TxVertical, freq_hz: float, points_m, z_m) -> np.ndarray
     return e * (-1j * k * ETA0_OHM / (4 * np.pi))
 
 
+_JSON = Memo(64)
+"""Parameters' JSON by the parameters object (held, so its id stays its own): the memo keys below, made once."""
+
+
+def _params_json(params) -> str:
+    """``params.model_dump_json()`` (the vertical's parameters in the memo keys), made once per parameters object (they
+    are frozen) rather than on every field, response or table asked for."""
+    held, text = _JSON.get(id(params), lambda: (params, params.model_dump_json()))
+    if held is not params:  # parameters let go, others at their address: made afresh
+        _JSON.clear()
+        held, text = _JSON.get(id(params), lambda: (params, params.model_dump_json()))
+    return text
+
+
 _TABLES = Memo(256)
 """The vertical's field tables (:func:`_field_table`) and its own response on a set of directions
 (:func:`vertical_response`), kept for the next antenna, resistor or place asking."""
@@ -381,7 +395,7 @@ def _field_table(tx: TxVertical, freq_hz: float, z_m: float, lo: int = 0, hi: in
     """(E_rho, E_z) exp(+j k rho) of :func:`field_vector_at` at :data:`TABLE_RHO_M` and height ``z_m``: the field is
     the same all round the vertical, and without its travelling phase it is smooth in log(rho).  Only the nodes
     ``lo`` .. ``hi`` (default all) are sure to be there: the table is made in blocks as distances ask."""
-    key = ("table", tx.vertical.params.model_dump_json(), tx.radius_m, float(freq_hz), float(z_m))
+    key = ("table", _params_json(tx.vertical.params), tx.radius_m, float(freq_hz), float(z_m))
     table = _TABLES.get(key, lambda: _Table(key))
     hi = len(TABLE_RHO_M) - 1 if hi is None else hi
     blocks = np.arange(lo // TABLE_BLOCK, hi // TABLE_BLOCK + 1)
@@ -410,7 +424,7 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
         return _field_along_now(tx, freq_hz, pts, heights)
     key = (
         "along",
-        tx.vertical.params.model_dump_json(),
+        _params_json(tx.vertical.params),
         tuple(map(float, tx.position_m)),
         float(tx.radius_m),
         float(freq_hz),
@@ -547,7 +561,7 @@ def vertical_response(tx: TxVertical, freq_hz: float, az, el) -> np.ndarray:
     """The vertical's own e_v on a set of directions, kept for the next antenna asking on the same directions (a
     ranking asks on the same sky grid for every candidate and every resistor tried)."""
     az, el = np.ascontiguousarray(az, dtype=float), np.ascontiguousarray(el, dtype=float)
-    key = ("response", tx.vertical.params.model_dump_json(), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
+    key = ("response", _params_json(tx.vertical.params), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
     return _TABLES.get(key, lambda: tx.vertical.complex_response(freq_hz, az, el)[0])
 
 
@@ -578,7 +592,7 @@ def _reradiated(tx: TxVertical, freq_hz: float, az, el, ref) -> np.ndarray:
 
     key = (
         "reradiated",
-        tx.vertical.params.model_dump_json(),
+        _params_json(tx.vertical.params),
         tuple(map(float, tx.position_m)),
         complex(tx.load_ohm),
         float(tx.radius_m),
