@@ -354,8 +354,8 @@ def run_quantiles(runs, weights, quantiles, at_least: float) -> tuple[float, ...
     total = float(n @ w)
     w_max = float(w.max())
 
-    def below(x) -> np.ndarray:  # the weight of the samples < each of the values x
-        return np.array([np.searchsorted(r, x, side="left") for r in runs]).T @ w
+    def counts(x) -> np.ndarray:  # (runs, len(x)): the samples of each run < each of the values x
+        return np.array([np.searchsorted(r, x, side="left") for r in runs])
 
     lo = min(float(r[0]) for r in runs)
     hi = float(np.nextafter(max(float(r[-1]) for r in runs), np.inf))
@@ -363,16 +363,18 @@ def run_quantiles(runs, weights, quantiles, at_least: float) -> tuple[float, ...
     for q in quantiles:
         target = q * total
         a, b = lo, hi
-        while sum(int(np.searchsorted(r, b) - np.searchsorted(r, a)) for r in runs) > WINDOW:
-            probes = np.linspace(a, b, PROBES + 1)
-            g = below(probes)
+        first, last = np.zeros(len(runs), dtype=int), n.copy()  # counts below a and b
+        frac = np.arange(PROBES + 1) / PROBES
+        while int((last - first).sum()) > WINDOW:
+            probes = a + (b - a) * frac
+            probes[-1] = b
+            c = counts(probes)
+            g = w @ c
             j = max(int(np.searchsorted(g, target - w_max, side="left")) - 1, 0)
             k = min(int(np.searchsorted(g, target + w_max, side="right")), PROBES)
             if probes[j] == a and probes[k] == b:
                 break  # no narrower window (ties, or the ends): merged as it is
-            a, b = float(probes[j]), float(probes[k])
-        first = [int(np.searchsorted(r, a)) for r in runs]
-        last = [int(np.searchsorted(r, b)) for r in runs]
+            a, b, first, last = float(probes[j]), float(probes[k]), c[:, j], c[:, k]
         v = np.concatenate([r[i:m] for r, i, m in zip(runs, first, last)])
         ww = np.concatenate([np.full(m - i, wk) for wk, i, m in zip(w, first, last)])
         order = np.argsort(v, kind="stable")
