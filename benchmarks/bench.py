@@ -19,7 +19,8 @@ Reports
   with the storm model, a placed source, 7 candidates of six families, a ground given as ranges): `snrgain
   rank` of it, `snrgain check` of it, the start-up of `rank`, and `snrgain layout` of the 20-acre demo, each as a
   ratio to a bare `python -c "import numpy"` in wall and CPU time (the project's sources compiled to bytecode once,
-  as installed), side by side with the pattern-against-PyNEC ratios.
+  as installed), side by side with the pattern-against-PyNEC ratios; then the pipeline's stages of that site, each
+  timed in one process with the sky cache warm (where a warm `rank` spends its time after its imports).
 
     python benchmarks/bench.py --site     # only the realistic site and the PyNEC ratios (~1 min)
     python benchmarks/bench.py --bands    # only three bands against one
@@ -669,6 +670,57 @@ def realistic_site():
         f"report / rank (warm) {r_report[0] / r_warm[0]:.2f}x, figures / rank (warm) {r_figs[0] / r_warm[0]:.2f}x "
         "(wall; target <= 1.5x each)"
     )
+    site_stages(env)
+
+
+STAGES_SCRIPT = """
+import json, sys, time
+import snrgain.cli  # as the command line: one BLAS thread (snrgain.cli)
+t = time.perf_counter(); c = time.process_time()
+import snrgain.model.pipeline as P
+from snrgain.model.products import antenna_results, products
+from snrgain.model.scatter import with_structures
+from snrgain.model.spread import snr_spread
+from snrgain.model.strong import with_strong_signals
+out = {"imports": (time.perf_counter() - t, time.process_time() - c)}
+def stage(name, fn, *args):
+    t = time.perf_counter(); c = time.process_time()
+    r = fn(*args)
+    out[name] = (time.perf_counter() - t, time.process_time() - c)
+    return r
+sc = stage("load", P.load, sys.argv[1])
+grid = P.sky_grid(sc)
+sc = P.resolve_sources(sc)
+skies = stage("sky", P.build_sky, sc, grid)
+sc = stage("steer", lambda s: P.steer(with_structures(s), grid, skies), sc)
+nominal = stage("products", products, sc, sc.antennas, grid, skies)
+spread = stage("snr_spread", snr_spread, sc, grid, skies, nominal)
+stage("results, decisions", lambda: with_strong_signals(
+    sc, P.decide(sc, skies, antenna_results(sc, nominal, skies, spread), P.pattern_cuts(sc))))
+print(json.dumps(out))
+"""
+
+
+def site_stages(env, n: int = 3):
+    """The pipeline's stages of the realistic site (snrgain.model.pipeline.evaluate's order), each timed in a fresh
+    process with the sky cache as ``env`` leaves it (best of ``n`` runs, wall and CPU): where a warm ``rank`` spends
+    its time after its imports."""
+    import json
+
+    best: dict[str, list] = {}
+    for _ in range(n):
+        run = subprocess.run(
+            [sys.executable, "-c", STAGES_SCRIPT, str(SITE)], check=True, capture_output=True, text=True, env=env
+        )
+        for name, (wall, cpu) in json.loads(run.stdout.strip().splitlines()[-1]).items():
+            old = best.setdefault(name, [wall, cpu])
+            old[0], old[1] = min(old[0], wall), min(old[1], cpu)
+    print("the realistic site's stages in one process, sky cache warm (best of 3, ms):")
+    print(f"{'':<24}{'wall':>8}{'CPU':>8}")
+    for name, (wall, cpu) in best.items():
+        print(f"{name:<24}{wall * 1e3:>8.0f}{cpu * 1e3:>8.0f}")
+    work = [sum(v[i] for k, v in best.items() if k != "imports") for i in (0, 1)]
+    print(f"{'stages together':<24}{work[0] * 1e3:>8.0f}{work[1] * 1e3:>8.0f}")
 
 
 if __name__ == "__main__":

@@ -36,7 +36,9 @@ The table (one per frequency, ground and kind of dipole, the last few kept): rho
 blocks, 32 m at least).  Close in (rho < 30 m) it holds the remainder, far out (rho > 100 m) the whole integrals
 (the closed forms' non-radiating terms would beat against the radiating part's phase between nodes there), a smooth step
 between; interpolated by tensor cubic Lagrange polynomials after taking out the phase exp(-j k0 R) and the 1 / R.
-Building one takes 0.02-0.09 s (one BLAS thread); a point then costs about 2 microseconds.  Within 1e-3 of the
+Building one takes 0.02-0.09 s (one BLAS thread), so each is also kept in the persistent cache
+(:mod:`noisemodels.skycache`, keyed by every input and this module's source) and read back by later runs; a
+point then costs about 2 microseconds.  Within 1e-3 of the
 same integrals evaluated at the point (tests).  Beyond 3 km :mod:`noisemodels.nearground` uses its closed form
 (within 0.6 dB there).
 """
@@ -48,6 +50,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from noisemodels import skycache
 from noisemodels.constants import C_M_PER_S
 
 RHO_MAX_M = 3000.0
@@ -329,6 +332,49 @@ def remainder_grid(k0: float, n2: complex, rho: np.ndarray, zeta: np.ndarray, ro
     return out
 
 
+TABLE_VERSION = 1
+"""Part of the persistent cache's key of the tables (:func:`_disk_key`); bump it when what a table holds changes
+in a way the key's other parts (this module's source among them) would not show."""
+
+
+@lru_cache(maxsize=1)
+def _source_digest() -> str:
+    """SHA-256 of this module's source: a table kept on disk is used only by the code that computed it."""
+    import hashlib
+
+    try:
+        with open(__file__, "rb") as fh:
+            return hashlib.sha256(fh.read()).hexdigest()
+    except OSError:
+        return "unknown"
+
+
+def _disk_key(freq_hz: float, n2: complex, kind: str, rho_top: float, zeta_top: float) -> dict:
+    """Every input of a table, for the persistent cache (:mod:`noisemodels.skycache`): the frequency, the ground's
+    relative complex permittivity, the kind, the reach, the grid's and the quadrature's constants, and this
+    module's source."""
+    n2 = complex(n2)
+    return {
+        "version": TABLE_VERSION,
+        "source": _source_digest(),
+        "freq_hz": float(freq_hz),
+        "n2": [n2.real, n2.imag],
+        "kind": str(kind),
+        "reach": [float(rho_top), float(zeta_top)],
+        "constants": [
+            RHO_SCALE_M,
+            S_STEP,
+            ZETA_STEP_M,
+            list(_BLOCK_EDGES_M),
+            list(FAR_SHARE_M),
+            _NODES,
+            _GRADED,
+            TE_IMAGE_FROM,
+            C_M_PER_S,
+        ],
+    }
+
+
 class _Table:
     """The remainders (demodulated) of one kind's rows on the grid asinh(rho) x zeta, to ``rho_top`` and
     ``zeta_top``."""
@@ -339,6 +385,12 @@ class _Table:
         self.rho_top, self.zeta_top = rho_top, zeta_top
         self.s = np.arange(0.0, np.arcsinh(rho_top / RHO_SCALE_M) + 3 * S_STEP, S_STEP)
         self.zeta = np.arange(0.0, zeta_top + 3 * ZETA_STEP_M, ZETA_STEP_M)
+        shape = (len(self.rows), len(self.s), len(self.zeta))
+        key = _disk_key(freq_hz, n2, kind, rho_top, zeta_top)
+        kept = skycache.load("halfspace", key)
+        if kept is not None and kept.shape == shape and kept.dtype == np.complex128:
+            self.values = kept
+            return
         rho = RHO_SCALE_M * np.sinh(self.s)
         vals = remainder_grid(self.k0, n2, rho, self.zeta, self.rows)
         far = rho >= FAR_SHARE_M[0]
@@ -348,6 +400,7 @@ class _Table:
             vals[:, far] += _far_share(rho[far])[None, :, None] * whole.reshape(len(self.rows), int(far.sum()), -1)
         r = np.hypot(rho[:, None], self.zeta[None, :])
         self.values = vals * (np.maximum(r, 1.0) * np.exp(1j * self.k0 * r))[None]
+        skycache.store("halfspace", key, self.values)
 
     def remainder(self, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
         """(len(rows), N) interpolated remainders."""

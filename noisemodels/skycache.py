@@ -1,4 +1,5 @@
-"""A persistent cache of computed sky maps, so that a run that leaves the noise alone does not recompute it.
+"""A persistent cache of computed sky maps (and of the half-space field tables, noisemodels.halfspace), so that a
+run that leaves the noise and the ground alone does not recompute them.
 
 Each entry is one array (a .npy file) named by the SHA-256 of a key: a dict of every input that enters the
 array, with a kind and a version (bumped when the model's code changes what it computes).  The folder is the

@@ -127,3 +127,21 @@ def test_the_command_line_asks_blas_for_one_thread_unless_the_user_chose():
     assert run("import snrgain.cli") == "1"
     assert run("import snrgain.cli", OPENBLAS_NUM_THREADS="2") == "2"
     assert run("import snrgain") == "None"
+
+
+def test_the_command_line_raises_the_collectors_threshold_and_import_snrgain_does_not():
+    # The command's process imports tens of thousands of objects: the collector runs far less often there; a
+    # program importing the package alone keeps Python's default.
+    code = "import gc\n{first}\nprint(gc.get_threshold()[0])\n"
+
+    def run(first):
+        return subprocess.run(
+            [sys.executable, "-c", code.format(first=first)], capture_output=True, text=True, check=True, cwd=REPO
+        ).stdout.strip()
+
+    from snrgain.cli import GC_FIRST_THRESHOLD
+
+    assert int(run("pass")) < GC_FIRST_THRESHOLD
+    assert run("import snrgain.cli") == str(GC_FIRST_THRESHOLD)
+    assert run("import snrgain") == run("pass")
+    assert run("import gc; gc.set_threshold(200000); import snrgain.cli") == "200000"

@@ -316,3 +316,68 @@ def test_direction_to_pixel_is_healpys_ang2pix(nside):
         np.testing.assert_array_equal(
             sphere.direction_to_pixel(nside, g.azimuth_rad, g.elevation_rad), np.arange(g.size)
         )
+
+
+def test_half_space_tables_are_kept_on_disk_and_read_back(cache_dir, monkeypatch):
+    # A table of the ground's field (noisemodels.halfspace) is kept in the same cache: a later run (its in-memory
+    # tables gone) reads it back bit for bit without integrating; another ground is another entry; opt-out reads
+    # nothing.
+    from noisemodels import halfspace, skycache
+
+    n2 = complex(15.0, -98.2)
+    rho, zeta = np.array([3.0, 40.0, 700.0]), np.array([2.0, 5.0, 1.0])
+    monkeypatch.setattr(halfspace, "_TABLES", type(halfspace._TABLES)())
+    first = halfspace.reflected(1.83e6, n2, rho, zeta, "vertical")
+    (entry,) = cache_dir.glob("halfspace-*.npy")
+    monkeypatch.setattr(halfspace, "_TABLES", type(halfspace._TABLES)())
+
+    def no_integral(*a, **k):
+        raise AssertionError("the table was integrated again")
+
+    real = halfspace.remainder_grid
+    monkeypatch.setattr(halfspace, "remainder_grid", no_integral)
+    np.testing.assert_array_equal(halfspace.reflected(1.83e6, n2, rho, zeta, "vertical"), first)
+    monkeypatch.setattr(halfspace, "remainder_grid", real)
+    halfspace.reflected(1.83e6, complex(15.0, -99.0), rho, zeta, "vertical")
+    assert len(list(cache_dir.glob("halfspace-*.npy"))) == 2
+    # The key holds the module's source: a table from other code is not used.
+    top = halfspace.ZETA_BLOCK_M * max(1, int(np.ceil(max(8.0, halfspace.ZETA_LEAST_M) / halfspace.ZETA_BLOCK_M)))
+    key = halfspace._disk_key(1.83e6, n2, "vertical", 1000.0, top)  # the table reaches ZETA_LEAST_M at least
+    assert entry.name == skycache.key_name("halfspace", key)
+    assert skycache.key_name("halfspace", {**key, "source": "other"}) != entry.name
+    monkeypatch.setenv(skycache.ENV_OFF, "1")
+    monkeypatch.setattr(halfspace, "_TABLES", type(halfspace._TABLES)())
+    monkeypatch.setattr(halfspace, "remainder_grid", no_integral)
+    with pytest.raises(AssertionError, match="integrated again"):
+        halfspace.reflected(1.83e6, n2, rho, zeta, "vertical")
+
+
+def test_the_verticals_field_tables_are_kept_on_disk_and_read_back(cache_dir, monkeypatch):
+    # The TX vertical's field against distance (snrgain.physics.scatter._field_table) is kept in the same cache: a
+    # later run (its memo emptied) reads the blocks made before bit for bit without working them again, and works
+    # only the blocks it newly needs.
+    import snrgain.physics.scatter as ps
+    from snrgain.antennas import from_si
+
+    tx = ps.TxVertical(from_si("vertical", height=20.0, ground="moist loam"), (0.0, 0.0), 50.0 + 0j, 0.01)
+    ps._TABLES.clear()
+    e_rho, e_z = (a.copy() for a in ps._field_table(tx, 1.83e6, 2.0, 100, 300))
+    (entry,) = cache_dir.glob("txfield-*.npy")
+    ps._TABLES.clear()
+    calls = []
+    real = ps.field_vector_at
+    monkeypatch.setattr(ps, "field_vector_at", lambda *a, **k: calls.append(len(a[2])) or real(*a, **k))
+    again = ps._field_table(tx, 1.83e6, 2.0, 100, 300)
+    assert calls == []
+    np.testing.assert_array_equal(again[0][100:301], e_rho[100:301])
+    np.testing.assert_array_equal(again[1][100:301], e_z[100:301])
+    ps._field_table(tx, 1.83e6, 2.0, 600, 650)  # further out: two new blocks, worked and kept
+    assert calls == [2 * ps.TABLE_BLOCK] and len(list(cache_dir.glob("txfield-*.npy"))) == 1
+    ps._TABLES.clear()
+    calls.clear()
+    ps._field_table(tx, 1.83e6, 2.0, 100, 650)  # both ranges now from the disk... except the blocks between
+    assert calls == [(600 // ps.TABLE_BLOCK - 300 // ps.TABLE_BLOCK - 1) * ps.TABLE_BLOCK]
+    ps._TABLES.clear()
+    calls.clear()
+    ps._field_table(tx, 1.83e6, 3.0, 100, 300)  # another height is another table
+    assert calls and len(list(cache_dir.glob("txfield-*.npy"))) == 2

@@ -5,11 +5,24 @@ where a multithreaded BLAS costs more in thread hand-offs than it gains, most of
 on a 2-core machine under load: a warm ``rank`` 2.8 s of CPU with OpenBLAS's threads, 1.5 s with one).  So the
 command line, whose process it is, asks numpy's BLAS for one thread before numpy is loaded, unless the user has
 chosen (``OPENBLAS_NUM_THREADS``, ``MKL_NUM_THREADS`` in the environment win).  ``import snrgain`` alone does not.
+
+Likewise the cyclic garbage collector: its default first threshold (700 new container objects) makes it run over a
+hundred times while the command imports its libraries (pydantic's schemas alone make tens of thousands of
+objects), each pass walking more of them, and a few dozen times in a ``rank``: about 50 ms of a warm ``rank`` of
+the realistic benchmark site, for almost no garbage (numerical work makes arrays, which it does not track).  The
+command line raises that threshold to :data:`GC_FIRST_THRESHOLD`; the collector still runs, less often.
 """
 
+import gc
 import os
 import sys
+
+GC_FIRST_THRESHOLD = 100_000
+"""New container objects between two passes of the collector's youngest generation in the command's process."""
 
 if "numpy" not in sys.modules:  # too late once numpy is loaded (a program that imported it first keeps its own)
     for _name in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ.setdefault(_name, "1")
+
+if gc.get_threshold()[0] < GC_FIRST_THRESHOLD:  # a program that set a higher one keeps it
+    gc.set_threshold(GC_FIRST_THRESHOLD, *gc.get_threshold()[1:])

@@ -28,6 +28,7 @@ import numpy as np
 
 from noisemodels.sky import SkyComponent, weighted_temperature_k
 from noisemodels.sphere import Directions
+from snrgain.memo import Memo
 
 
 def hemisphere_mean_gain(gain_on_grid, grid: Directions) -> float:
@@ -140,26 +141,55 @@ def sky_temperatures(gains: Gains, skies, *, pickup=None, strength_db=None) -> T
     nm, nh = len(skies.months), len(skies.utc_hours)
     out = np.zeros((len(skies.names), len(gains.caches), nm, nh))
     index = {n: i for i, n in enumerate(skies.names)}
-    # Cells whose component shares one set of directions are integrated at once: the antennas' gains on that set
-    # (antennas, directions) times the cells' brightness (directions, cells), one product per set.
-    groups: dict[tuple[int, int], tuple] = {}
-    for (i, j), comps in skies.maps.items():
-        for c in comps:
-            key = (index[c.name], id(c.directions))
-            groups.setdefault(key, (c.directions, c.name, []))[2].append((i, j, c.weight_k_sr))
-    for (row, _), (directions, name, cells) in groups.items():
-        w = np.array([wk for _, _, wk in cells])  # (cells, directions)
-        ii = np.array([i for i, _, _ in cells])
-        jj = np.array([j for _, j, _ in cells])
+    for row, directions, name, w, of_cell, ii, jj in _sky_groups(skies, index):
         if name in pickup:  # heard through the reference's pattern, then each antenna's share
-            t = _product(np.atleast_2d(gains.caches[0].on(directions)), w) / (4.0 * np.pi)  # (1, cells)
+            t = _product(np.atleast_2d(gains.caches[0].on(directions)), w)[:, of_cell] / (4.0 * np.pi)  # (1, cells)
             out[row, :, ii, jj] = (pickup[name][:, None] * t).T
         else:
             g = np.array([cache.on(directions) for cache in gains.caches])  # (antennas, directions)
-            out[row, :, ii, jj] = (_product(g, w) / (4.0 * np.pi)).T
+            out[row, :, ii, jj] = (_product(g, w)[:, of_cell] / (4.0 * np.pi)).T
     for name, db in (strength_db or {}).items():
         out[index[name]] *= 10.0 ** (db / 10.0)
     return Temperatures(out, out.sum(axis=0))
+
+
+_GROUPS = Memo(4)
+"""A sky's cells grouped for :func:`sky_temperatures`, by the sky (held, so its id stays its own)."""
+
+
+def _sky_groups(skies, index: dict) -> list[tuple]:
+    """Cells whose component shares one set of directions, to be integrated at once: the antennas' gains on that set
+    (antennas, directions) times the cells' brightness (cells, directions), one product per set.  A list of (row,
+    directions, name, the distinct brightness maps (maps, directions), each cell's map (cells,), month indices,
+    hour indices); made once per sky (every pass of the products under one sky reads the same).  A component the
+    same at every hour (man-made noise, a placed source; the galactic noise where the ionosphere screens it) is
+    integrated once, not once per cell: the same sums, so the same temperatures to the bit."""
+
+    def make():
+        groups: dict[tuple[int, int], tuple] = {}
+        for (i, j), comps in skies.maps.items():
+            for c in comps:
+                key = (index[c.name], id(c.directions))
+                groups.setdefault(key, (c.directions, c.name, []))[2].append((i, j, c.weight_k_sr))
+        out = []
+        for (row, _), (directions, name, cells) in groups.items():
+            w = np.array([wk for _, _, wk in cells])  # (cells, directions)
+            if np.array_equal(w, np.broadcast_to(w[:1], w.shape)):  # the same map at every hour
+                maps, of_cell = w[:1], np.zeros(len(w), dtype=int)
+            else:  # the distinct maps, in order of first use (by their bytes: exact equality)
+                first: dict[bytes, int] = {}
+                of_cell = np.array([first.setdefault(m.tobytes(), len(first)) for m in w])
+                maps = w if len(first) == len(w) else w[[list(of_cell).index(k) for k in range(len(first))]]
+            maps.flags.writeable = False
+            ii = np.array([i for i, _, _ in cells])
+            out.append((row, directions, name, maps, of_cell, ii, np.array([j for _, j, _ in cells])))
+        return skies, out
+
+    held, out = _GROUPS.get(id(skies), make)
+    if held is not skies:  # a sky let go, another at its address: made afresh
+        _GROUPS.clear()
+        held, out = _GROUPS.get(id(skies), make)
+    return out
 
 
 SMALL_PRODUCT = 20_000_000

@@ -200,12 +200,13 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
                         np.sort((-noise[:, mask] if u.hours else -noise[:, mask].mean(axis=1, keepdims=True)).ravel())
                         for _, noise, _ in nodes
                     ]
-                # a node's shift keeps its run sorted, so the stable sort (a merge of presorted runs) is cheap
-                v = np.concatenate([run + signal[t_idx] for run, (signal, _, _) in zip(runs[key], nodes)])
-                w = np.concatenate(
-                    [np.full(run.size, weight / run.size) for run, (_, _, weight) in zip(runs[key], nodes)]
+                # a node's shift keeps its run sorted: the quantiles are read from the runs (run_quantiles)
+                stats = run_quantiles(
+                    [run + signal[t_idx] for run, (signal, _, _) in zip(runs[key], nodes)],
+                    [weight / run.size for run, (_, _, weight) in zip(runs[key], nodes)],
+                    (0.1, 0.5, 0.9),
+                    u.beat_by_db,
                 )
-                stats = (*weighted_quantiles(v, w, (0.1, 0.5, 0.9)), float(np.sum(w[v >= u.beat_by_db]) / np.sum(w)))
                 out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
             continue
         hists: dict[bytes, list] = {}  # one histogram of -noise per node and distinct set of listened cells
@@ -326,6 +327,62 @@ def over_hours(values_db, hours: bool) -> float:
     hours not counted as a spread (``[uncertainty] hours = false``) their mean in dB."""
     v = np.asarray(values_db, dtype=float)
     return float(np.median(v) if hours else np.mean(v))
+
+
+PROBES = 64
+"""Values tried at once in each narrowing step of :func:`run_quantiles`."""
+WINDOW = 4096
+"""Samples :func:`run_quantiles` sorts around each quantile once the narrowing has brought them to this few."""
+
+
+def run_quantiles(runs, weights, quantiles, at_least: float) -> tuple[float, ...]:
+    """:func:`weighted_quantiles` of the samples of several sorted runs (run k's samples each of weight
+    ``weights[k]``, ordered as a stable sort of their concatenation orders them: ties in run order), then the share
+    of the weight at or above ``at_least``, without sorting them all.
+
+    The weight below any value is a count per run (searchsorted) times its weight, so a few rounds of
+    :data:`PROBES` values narrow each quantile to a window [a, b) of at most :data:`WINDOW` samples with the weight
+    below a more than one sample's weight short of the quantile's (or a the smallest sample) and the weight below b
+    more than one past it (or b past the largest): the two weight midpoints the quantile falls between then both lie
+    in the window, and only its samples are merged.  The interpolation is :func:`weighted_quantiles`'s; the weight
+    below the window is summed by counts, not sample by sample, so the quantiles agree to rounding (a test)."""
+    runs = [np.asarray(r, dtype=float) for r in runs if np.size(r)]
+    w = np.asarray([wk for r, wk in zip(runs, weights) if np.size(r)], dtype=float)
+    if not runs:
+        raise ValueError("no samples")
+    n = np.array([r.size for r in runs])
+    total = float(n @ w)
+    w_max = float(w.max())
+
+    def counts(x) -> np.ndarray:  # (runs, len(x)): the samples of each run < each of the values x
+        return np.array([np.searchsorted(r, x, side="left") for r in runs])
+
+    lo = min(float(r[0]) for r in runs)
+    hi = float(np.nextafter(max(float(r[-1]) for r in runs), np.inf))
+    out = []
+    for q in quantiles:
+        target = q * total
+        a, b = lo, hi
+        first, last = np.zeros(len(runs), dtype=int), n.copy()  # counts below a and b
+        frac = np.arange(PROBES + 1) / PROBES
+        while int((last - first).sum()) > WINDOW:
+            probes = a + (b - a) * frac
+            probes[-1] = b
+            c = counts(probes)
+            g = w @ c
+            j = max(int(np.searchsorted(g, target - w_max, side="left")) - 1, 0)
+            k = min(int(np.searchsorted(g, target + w_max, side="right")), PROBES)
+            if probes[j] == a and probes[k] == b:
+                break  # no narrower window (ties, or the ends): merged as it is
+            a, b, first, last = float(probes[j]), float(probes[k]), c[:, j], c[:, k]
+        v = np.concatenate([r[i:m] for r, i, m in zip(runs, first, last)])
+        ww = np.concatenate([np.full(m - i, wk) for wk, i, m in zip(w, first, last)])
+        order = np.argsort(v, kind="stable")
+        v, ww = v[order], ww[order]
+        cum = (float(np.array(first) @ w) + np.cumsum(ww) - 0.5 * ww) / total
+        out.append(float(np.interp(q, cum, v)))
+    share = float((n - np.array([np.searchsorted(r, at_least, side="left") for r in runs])) @ w) / total
+    return (*out, share)
 
 
 def weighted_quantiles(values, weights, quantiles) -> tuple[float, ...]:

@@ -48,14 +48,17 @@ def sky_forms(sc: Scenario, skies, ant, k: int):
     signal toward the target nearest its bearing (snrgain.antennas.steering)."""
     from snrgain.antennas.steering import quadratic_form
 
-    responses: dict[int, tuple] = {}
-    noise = 0
+    # The form is linear in the brightness: the maps on one set of directions are summed over components, months
+    # and hours first, and each set's form made once.
+    brightness: dict[int, list] = {}
     for comps in skies.maps.values():
         for c in comps:
-            key = id(c.directions)
-            if key not in responses:
-                responses[key] = ant.element_responses(sc.freq_hz, c.directions.azimuth_rad, c.directions.elevation_rad)
-            noise = noise + quadratic_form(*responses[key], c.weight_k_sr / (4 * np.pi))
+            held = brightness.setdefault(id(c.directions), [c.directions, 0.0])
+            held[1] = held[1] + c.weight_k_sr
+    noise = 0
+    for directions, total in brightness.values():
+        responses = ant.element_responses(sc.freq_hz, directions.azimuth_rad, directions.elevation_rad)
+        noise = noise + quadratic_form(*responses, total / (4 * np.pi))
     noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
     ti = nearest_target(sc, ant.params.bearing)
     t = sc.targets[ti]

@@ -297,6 +297,20 @@ def field_vector_at(tx: TxVertical, freq_hz: float, points_m, z_m) -> np.ndarray
     return e * (-1j * k * ETA0_OHM / (4 * np.pi))
 
 
+_JSON = Memo(64)
+"""Parameters' JSON by the parameters object (held, so its id stays its own): the memo keys below, made once."""
+
+
+def _params_json(params) -> str:
+    """``params.model_dump_json()`` (the vertical's parameters in the memo keys), made once per parameters object (they
+    are frozen) rather than on every field, response or table asked for."""
+    held, text = _JSON.get(id(params), lambda: (params, params.model_dump_json()))
+    if held is not params:  # parameters let go, others at their address: made afresh
+        _JSON.clear()
+        held, text = _JSON.get(id(params), lambda: (params, params.model_dump_json()))
+    return text
+
+
 _TABLES = Memo(256)
 """The vertical's field tables (:func:`_field_table`) and its own response on a set of directions
 (:func:`vertical_response`), kept for the next antenna, resistor or place asking."""
@@ -309,20 +323,80 @@ TABLE_BLOCK = 40
 
 
 class _Table:
-    """(E_rho, E_z) exp(+j k rho) at :data:`TABLE_RHO_M`, filled a block of nodes at a time (NaN where not yet)."""
+    """(E_rho, E_z) exp(+j k rho) at :data:`TABLE_RHO_M`, filled a block of nodes at a time (NaN where not yet).
 
-    def __init__(self):
+    Also kept in the persistent cache (:mod:`noisemodels.skycache`, kind "txfield"), keyed by the table's key, the
+    grid and the source of the code that computes it: a later run starts from the blocks earlier runs made."""
+
+    def __init__(self, key=None):
         self.e_rho = np.full(len(TABLE_RHO_M), np.nan + 0j)
         self.e_z = np.full(len(TABLE_RHO_M), np.nan + 0j)
         self.done = np.zeros(-(-len(TABLE_RHO_M) // TABLE_BLOCK), dtype=bool)
+        from noisemodels import skycache
+
+        self.disk_key = _disk_key(key) if key is not None and skycache.enabled() else None
+        if self.disk_key is not None:
+            kept = skycache.load("txfield", self.disk_key)
+            if kept is not None and kept.shape == (3, len(TABLE_RHO_M)) and kept.dtype == np.complex128:
+                done = kept[2, ::TABLE_BLOCK].real > 0
+                if len(done) == len(self.done):
+                    self.e_rho, self.e_z, self.done = kept[0].copy(), kept[1].copy(), done
+
+    def keep(self) -> None:
+        """Write the table (its blocks made so far) to the persistent cache."""
+        if self.disk_key is not None:
+            from noisemodels import skycache
+
+            made = np.repeat(self.done, TABLE_BLOCK)[: len(TABLE_RHO_M)].astype(complex)
+            skycache.store("txfield", self.disk_key, np.stack([self.e_rho, self.e_z, made]))
+
+
+TXFIELD_VERSION = 1
+"""Part of the persistent cache's key of the vertical's field tables; bump it when what they hold changes in a way
+the key's other parts (the sources of the modules that compute them among them) would not show."""
+
+
+def _code_digest() -> str:
+    """SHA-256 of the sources the vertical's field tables are computed by (this module, the quadrature, the ground's
+    constants and every module of noisemodels, which the near-ground field uses), once per process."""
+    global _DIGEST
+    if _DIGEST is None:
+        import hashlib
+        from pathlib import Path
+
+        import noisemodels
+        from snrgain.physics import ground, quadrature
+
+        h = hashlib.sha256()
+        files = [Path(__file__), Path(quadrature.__file__), Path(ground.__file__)]
+        files += sorted(Path(noisemodels.__file__).parent.glob("*.py"))
+        for f in files:
+            try:
+                h.update(f.read_bytes())
+            except OSError:
+                h.update(b"?")
+        _DIGEST = h.hexdigest()
+    return _DIGEST
+
+
+_DIGEST: str | None = None
+
+
+def _disk_key(key: tuple) -> dict:
+    return {
+        "version": TXFIELD_VERSION,
+        "code": _code_digest(),
+        "table": [str(key[1]), float(key[2]), float(key[3]), float(key[4])],
+        "grid": [float(TABLE_RHO_M[0]), float(TABLE_RHO_M[-1]), len(TABLE_RHO_M), TABLE_BLOCK, SEGMENT_POINTS],
+    }
 
 
 def _field_table(tx: TxVertical, freq_hz: float, z_m: float, lo: int = 0, hi: int | None = None):
     """(E_rho, E_z) exp(+j k rho) of :func:`field_vector_at` at :data:`TABLE_RHO_M` and height ``z_m``: the field is
     the same all round the vertical, and without its travelling phase it is smooth in log(rho).  Only the nodes
     ``lo`` .. ``hi`` (default all) are sure to be there: the table is made in blocks as distances ask."""
-    key = ("table", tx.vertical.params.model_dump_json(), tx.radius_m, float(freq_hz), float(z_m))
-    table = _TABLES.get(key, _Table)
+    key = ("table", _params_json(tx.vertical.params), tx.radius_m, float(freq_hz), float(z_m))
+    table = _TABLES.get(key, lambda: _Table(key))
     hi = len(TABLE_RHO_M) - 1 if hi is None else hi
     blocks = np.arange(lo // TABLE_BLOCK, hi // TABLE_BLOCK + 1)
     todo = blocks[~table.done[blocks]]
@@ -335,6 +409,7 @@ def _field_table(tx: TxVertical, freq_hz: float, z_m: float, lo: int = 0, hi: in
         undo = np.exp(1j * k * rho)
         table.e_rho[nodes], table.e_z[nodes] = e[:, 0] * undo, e[:, 2] * undo
         table.done[todo] = True
+        table.keep()
     return table.e_rho, table.e_z
 
 
@@ -349,7 +424,7 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
         return _field_along_now(tx, freq_hz, pts, heights)
     key = (
         "along",
-        tx.vertical.params.model_dump_json(),
+        _params_json(tx.vertical.params),
         tuple(map(float, tx.position_m)),
         float(tx.radius_m),
         float(freq_hz),
@@ -486,7 +561,7 @@ def vertical_response(tx: TxVertical, freq_hz: float, az, el) -> np.ndarray:
     """The vertical's own e_v on a set of directions, kept for the next antenna asking on the same directions (a
     ranking asks on the same sky grid for every candidate and every resistor tried)."""
     az, el = np.ascontiguousarray(az, dtype=float), np.ascontiguousarray(el, dtype=float)
-    key = ("response", tx.vertical.params.model_dump_json(), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
+    key = ("response", _params_json(tx.vertical.params), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
     return _TABLES.get(key, lambda: tx.vertical.complex_response(freq_hz, az, el)[0])
 
 
@@ -517,7 +592,7 @@ def _reradiated(tx: TxVertical, freq_hz: float, az, el, ref) -> np.ndarray:
 
     key = (
         "reradiated",
-        tx.vertical.params.model_dump_json(),
+        _params_json(tx.vertical.params),
         tuple(map(float, tx.position_m)),
         complex(tx.load_ohm),
         float(tx.radius_m),

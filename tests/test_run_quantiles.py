@@ -1,0 +1,75 @@
+"""The spread's quantiles read from sorted runs (snrgain.model.spread.run_quantiles) against a sort of every sample
+(weighted_quantiles), and against the same interpolation carried out in extended precision."""
+
+import numpy as np
+import pytest
+
+from snrgain.model import spread
+from snrgain.model.spread import run_quantiles, weighted_quantiles
+
+QS = (0.1, 0.5, 0.9)
+
+
+def _case(rng, *, ties: bool, sizes=None):
+    k = int(rng.integers(1, 10))
+    sizes = sizes or [int(rng.integers(1, 20_000)) for _ in range(k)]
+    runs = []
+    for n in sizes:
+        r = rng.normal(rng.normal(0.0, 3.0), rng.uniform(0.1, 5.0), n)
+        runs.append(np.sort(np.round(r, 1) if ties else r))
+    node = rng.uniform(0.01, 1.0, len(sizes))
+    node /= node.sum()
+    return runs, [float(w / r.size) for w, r in zip(node, runs)]
+
+
+def _flat(runs, weights):
+    return np.concatenate(runs), np.concatenate([np.full(r.size, w) for r, w in zip(runs, weights)])
+
+
+def _extended(runs, weights, qs):
+    """weighted_quantiles' interpolation with the cumulative weights in long double."""
+    v, w = _flat(runs, weights)
+    order = np.argsort(v, kind="stable")
+    v, w = v[order].astype(np.longdouble), w[order].astype(np.longdouble)
+    cum = (np.cumsum(w) - 0.5 * w) / w.sum()
+    out = []
+    for q in qs:
+        i = min(max(int(np.searchsorted(cum, q, side="right")) - 1, 0), len(cum) - 2) if len(cum) > 1 else 0
+        if len(cum) == 1 or q <= cum[0]:
+            out.append(float(v[0] if q <= cum[0] else v[-1]))
+            continue
+        t = min(max((np.longdouble(q) - cum[i]) / (cum[i + 1] - cum[i]), 0), 1)
+        out.append(float(v[i] + t * (v[i + 1] - v[i])))
+    return out
+
+
+@pytest.mark.parametrize("ties", [False, True])
+@pytest.mark.parametrize("seed", range(12))
+def test_run_quantiles_are_the_sorted_samples_quantiles(seed, ties, monkeypatch):
+    rng = np.random.default_rng(seed)
+    runs, weights = _case(rng, ties=ties)
+    if seed % 3 == 0:  # small windows: many narrowing rounds (and with ties, windows that cannot narrow)
+        monkeypatch.setattr(spread, "WINDOW", 8)
+        monkeypatch.setattr(spread, "PROBES", 4)
+    got = run_quantiles(runs, weights, QS, 1.0)
+    v, w = _flat(runs, weights)
+    want = weighted_quantiles(v, w, QS)
+    np.testing.assert_allclose(got[:3], want, rtol=0, atol=1e-8)  # the full sort's running sum rounds to ~1e-10
+    np.testing.assert_allclose(got[:3], _extended(runs, weights, QS), rtol=0, atol=1e-10)
+    assert got[3] == pytest.approx(np.sum(w[v >= 1.0]) / np.sum(w), rel=1e-12, abs=1e-15)
+
+
+def test_ties_across_runs_follow_the_run_order():
+    # Equal values from runs of different weights: the midpoints follow the concatenation's stable order.
+    runs = [np.array([0.0, 1.0, 1.0, 2.0]), np.array([1.0, 1.0, 3.0])]
+    weights = [0.1, 0.3]
+    v, w = _flat(runs, weights)
+    for q in np.linspace(0.0, 1.0, 41):
+        assert run_quantiles(runs, weights, (q,), 1.0)[0] == pytest.approx(weighted_quantiles(v, w, (q,))[0], abs=1e-12)
+    assert run_quantiles(runs, weights, (0.5,), 1.0)[1] == pytest.approx((0.2 + 0.6 + 0.1 + 0.3) / 1.3)
+
+
+def test_one_sample_and_empty_runs():
+    assert run_quantiles([np.array([5.0]), np.array([])], [1.0, 2.0], (0.1, 0.9), 6.0) == (5.0, 5.0, 0.0)
+    with pytest.raises(ValueError):
+        run_quantiles([np.array([])], [1.0], (0.5,), 0.0)
