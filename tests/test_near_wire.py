@@ -227,6 +227,18 @@ def test_packaged_engine_is_the_patched_one_inside_its_interpolation_grid():
     chk = {p["distance_m"]: p["ratio_db"] for p in REF["engine_check"]["points"]}
     assert abs(chk[50.0]) < 0.01 and abs(chk[100.0]) < 0.01
     assert abs(chk[200.0]) > 20.0
+    # Where it leaves the grid: the reference's R E_z at 140-156 m, 2 and 30 m up, flat (within 0.02 dB) while the
+    # image distance from its top is under 160 m, then off by 2-70 dB from 160.8 m on (the switch near 0.98
+    # wavelength, R reaching past it along the top segment); the stored points stay under MAX_R_M = 157.3 m.
+    edge = REF["engine_check"]["edge"]
+    for z in (2.0, 30.0):
+        row = [e for e in edge if e["height_m"] == z]
+        first = row[0]["r_ez_db"]
+        for e in row:
+            if e["image_distance_m"] < REF["max_image_distance_m"]:
+                assert e["r_ez_db"] == pytest.approx(first, abs=0.05)
+            elif e["image_distance_m"] > 160.8:
+                assert abs(e["r_ez_db"] - first) > 2.0
     for run in REF["runs"]:  # every stored point inside the grid
         w = REF["wires"][run["wire"]]
         for p in run["points"]:

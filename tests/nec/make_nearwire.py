@@ -14,26 +14,26 @@ what it moves.
 
 The engine: Debian's nec2c, not the project's patched one (tests/nec/build_nec2c.sh), which is not built here.
 Packaged nec2c goes wrong only where its Sommerfeld interpolation ends: NEC-2 reads the ground's field from its
-interpolation grid where the distance R from a current element to the image of the field point is under one
-wavelength, and beyond that from the asymptotic ground wave, whose fbar() the packaged engine breaks
-(nec2c-fbar.patch).  So every wire here is shorter than a wavelength (164 m at 1.83 MHz) and a point is kept only
-where R from every part of the wire, its image taken, is under MAX_R_M (a 4 % margin): the whole run then never
-leaves the interpolation grid and the packaged engine is the patched one there.  ``engine_check`` shows it on
-the stored nearcompact.json (the patched engine's): its reference deck's fields at 50 m (R < one wavelength) are
-reproduced to print precision, and at 100 m (R just under a wavelength) too; its 200 m ones (beyond) are
-152 dB off.  That limit is why the Beverages are 150 m (up to 100 m abeam its middle, 5 m off its ends) and 90 m
-(100 m abeam, 60 m off its ends), and no point lies 200 m away.  The source's field the model uses was checked
-against the same engine where it matters most, along the low wire at 0.2 m from a horizontal dipole 4 m up (E_x
-over E_z: the same as NEC's to four digits over both soils; a one-off check, not stored).
+interpolation grid where the distance R from a current element to the image of the field point is under about a
+wavelength (from memory of NEC-2's code, a switch near k R = 2 pi), and beyond that from the asymptotic ground wave,
+whose fbar() the packaged engine breaks (nec2c-fbar.patch). ``engine_check`` finds the jump at R = 160-161 m from
+the reference vertical's top (0.98 wavelength). So every wire here is shorter than a wavelength (164 m at 1.83 MHz)
+and a point is kept only where R from every end of the wire, its image taken, is under MAX_R_M (157.3 m): the whole
+run then never leaves the interpolation grid and the packaged engine is the patched one there. ``engine_check``
+shows it on the stored nearcompact.json (the patched engine's): its reference deck's fields at 50 and 100 m are
+reproduced to print precision, its 200 m ones are 152 dB off. That limit is why the Beverages are 150 m (up to 100 m
+abeam its middle, 5 m off its ends) and 90 m (100 m abeam, 60 m off its ends), and no point lies 200 m away. The
+source's field the model uses was checked against the same engine where it matters most, along the low wire at 0.2 m
+from a horizontal dipole 4 m up (E_x over E_z: the same as NEC's to four digits over both soils; a one-off check,
+not stored).
 
 Wires (1.83 MHz; AWG 14; eps_r 13, 5 mS/m and eps_r 5, 1 mS/m, GN 2):
 
 - Beverages 150 m and 90 m long, 2 m up, down-leads to the ground at both ends (GE 1), 500 ohm at the far lead's
   bottom; the feed at the near lead's bottom; along +x from x = 0 (the wire's favoured direction, NEC phi = 0);
 - a low wire, the BOG's NEC counterpart: 100 m, bare AWG 14, at LOW_HEIGHT_M (0.2 m), with leads to the ground
-  of that height, 300 ohm at its far end.  NEC-2 cannot put a wire on the soil (its thin-wire kernel wants the
-  wire clear of the interface; from memory, NEC-2's manual asks a horizontal wire to stand well above the ground
-  relative to its radius and points to NEC-4 for wires at or under the surface).  How low it still holds was
+  of that height, 300 ohm at its far end.  NEC-2 cannot put a wire on the soil (from memory: NEC-2 takes wires
+  above the interface only, wires in the soil came with its successors NEC-3 and NEC-4).  How low it still holds was
   measured here (``low_wire_study``, over 5 mS/m at 0.05-0.5 m, three segmentations down to 1 m along the wire):
   the horizontal wire alone (open ends, centre-fed, no ground junction) gives the same gain along it within 0.01 dB
   and feed impedance within 5 % at every height down to 0.05 m (61 radii): the Sommerfeld solution of the low
@@ -87,6 +87,8 @@ WIRES = {
     "bev150": {"length_m": 150.0, "height_m": 2.0, "termination_ohm": 500.0},
     "bev90": {"length_m": 90.0, "height_m": 2.0, "termination_ohm": 500.0},
 }
+COMPACT_REFERENCE_HEIGHT_M = 299.792458 / FREQ_MHZ / 4
+"""nearcompact.json's quarter-wave reference (the engine check's antenna)."""
 LOW_HEIGHT_M = 0.2
 LOW_WIRE = {"length_m": 100.0, "height_m": LOW_HEIGHT_M, "termination_ohm": 300.0}
 LOW_HEIGHTS_M = [0.05, 0.1, 0.2, 0.3, 0.5]
@@ -265,7 +267,31 @@ def engine_check(work: Path) -> dict:
                     "ratio_db": float(20 * np.log10(abs(here) / abs(stored))),
                 }
             )
-    return {"deck": run["deck"], "what": "E_z [V/m] of the quarter-wave reference, 1 V at its base", "points": out}
+    # Where the packaged engine leaves the grid: R E_z of the reference (41 m tall) at 140-156 m, 2 and 30 m up,
+    # against the largest image distance from its wire (from its top, R = hypot(rho, z + 41 m)).
+    deck = (HERE / run["deck"]).read_text().splitlines()
+    top = COMPACT_REFERENCE_HEIGHT_M
+    rho = [140.0, 144.0, 146.0, 148.0, 150.0, 152.0, 154.0, 155.0, 156.0]
+    edge = []
+    for z in (2.0, 30.0):
+        cards = [c for c in deck if not c.startswith(("NE", "RP", "EN"))]
+        cards += [f"NE 0 1 1 1 {r:g} 0 {z:g} 0 0 0" for r in rho] + ["EN"]
+        fields = near_fields(run_nec2c("\n".join(cards) + "\n", work, "edge"))
+        edge += [
+            {
+                "rho_m": r,
+                "height_m": z,
+                "image_distance_m": float(np.hypot(r, z + top)),
+                "r_ez_db": float(20 * np.log10(r * abs(complex(*e[2])))),
+            }
+            for r, e in zip(rho, fields)
+        ]
+    return {
+        "deck": run["deck"],
+        "what": "E_z [V/m] of the quarter-wave reference, 1 V at its base",
+        "points": out,
+        "edge": edge,
+    }
 
 
 def low_wire_study(work: Path) -> dict:
