@@ -114,7 +114,7 @@ def _reference_powers(gname, seg, height, kind):
         run = next(
             r
             for r in COMPACT["runs"]
-            if (r["antenna"], r["ground"], r["segmentation"]) == ("reference", gname, seg.removesuffix("-raw"))
+            if (r["antenna"], r["ground"], r["segmentation"]) == ("reference", gname, seg.split("-")[0])
         )
         pt = next(p for p in run["points"] if p["distance_m"] == REFERENCE_DISTANCE_M and p["height_m"] == height)
         v = COMPACT["antennas"]["reference"]
@@ -160,39 +160,14 @@ def _cases(names=("bev150", "bev90", "low")):
     return out
 
 
-# Cases beyond the tolerance (2.5 dB plus NEC's spread between its two segmentations), each with its measured error
-# (model over NEC, coarse; the finer segmentation's and the one with NEC's junction kept beside it) and a bound that
-# still catches a change for the worse.  Causes (test_nec_far_end_and_line_against_the_model below):
-# - bev90 over 1 mS/m, a horizontal source 30 m behind the feed: a rear null, which moves with NEC's far end (the
-#   junction kept: +9.98 dB; the segmentations +5.94 and +2.54): NEC's far end over 1 mS/m reflects 0.11-0.26 of
-#   the current where the model's 500 ohm reflects 0.06 (a reactive far end, which the resistive de-embedding
-#   leaves in place);
-# - the low wire (0.2 m) over 1 mS/m: NEC's far end reflects 0.78-0.90 of the current (junction 2.4-4.6 kohm at
-#   a 0.2 m lead; 424 - 1689j ohm read through the model's line), the model's 300 ohm 0.24: NEC's low wire is nearly
-#   unterminated, so it hears more from behind (the model reads sources behind the feed 2.6-5.3 dB low) and the
-#   broadside horizontal sources, whose pickup along the wire nearly cancels, read (likely) through the far end's
-#   reflection instead (-4.5 to -18.6 dB).  The line itself agrees (velocity factor within 0.3 %, attenuation
-#   8 %); so do the source's fields (E along the wire at 0.2 m against NEC's own horizontal dipole: the same to
-#   four digits, make_nearwire's docstring): what differs is the far end.
-KNOWN_MISSES: dict = {
-    ("bev90", "dry", "behind", 30.0, 4.0, "horizontal"): 6.5,  # +5.94 (fine +2.54, junction kept +9.98)
-    ("low", "dry", "abeam", 5.0, 4.0, "horizontal"): 9.1,  # -8.60 (fine -8.79, junction kept -7.53)
-    ("low", "dry", "abeam", 10.0, 4.0, "horizontal"): 19.1,  # -18.58 (fine -19.20, junction kept -18.40)
-    ("low", "dry", "abeam", 15.0, 4.0, "horizontal"): 13.3,  # -12.75 (fine -13.46, junction kept -12.85)
-    ("low", "dry", "abeam", 30.0, 4.0, "horizontal"): 7.6,  # -7.08 (fine -7.70, junction kept -7.28)
-    ("low", "dry", "abeam", 60.0, 4.0, "horizontal"): 5.5,  # -4.98 (fine -5.40, junction kept -5.03)
-    ("low", "dry", "abeam", 100.0, 4.0, "horizontal"): 5.0,  # -4.48 (fine -4.82, junction kept -4.46)
-    ("low", "dry", "behind", 5.0, 4.0, "horizontal"): 3.7,  # -3.13 (fine -3.21, junction kept -2.96)
-    ("low", "dry", "behind", 10.0, 2.0, "vertical"): 4.4,  # -3.86 (fine -3.69, junction kept -2.96)
-    ("low", "dry", "behind", 10.0, 4.0, "horizontal"): 3.2,  # -2.70 (fine -2.80, junction kept -2.52)
-    ("low", "dry", "behind", 10.0, 6.0, "vertical"): 3.5,  # -2.96 (fine -2.67, junction kept -2.00)
-    ("low", "dry", "behind", 15.0, 2.0, "vertical"): 5.2,  # -4.67 (fine -4.50, junction kept -3.67)
-    ("low", "dry", "behind", 15.0, 6.0, "vertical"): 4.5,  # -3.93 (fine -3.65, junction kept -2.81)
-    ("low", "dry", "behind", 15.0, 10.0, "vertical"): 4.0,  # -3.47 (fine -3.09, junction kept -2.21)
-    ("low", "dry", "behind", 30.0, 2.0, "vertical"): 5.8,  # -5.25 (fine -5.04, junction kept -4.04)
-    ("low", "dry", "behind", 30.0, 6.0, "vertical"): 5.6,  # -5.07 (fine -4.82, junction kept -3.80)
-    ("low", "dry", "behind", 30.0, 10.0, "vertical"): 5.4,  # -4.86 (fine -4.57, junction kept -3.52)
-}
+# Cases beyond the tolerance (2.5 dB plus NEC's spread between its two segmentations) would go here with their
+# measured error, cause and a bound.  None are left with NEC's junction taken out as an impedance (make_nearwire's
+# ``junction``).  With its resistance alone taken out (make_deembedded.py's way, the "-resistive" runs) 17 low-wire
+# cases and one Beverage case missed, by up to 18.6 dB (the low wire over 1 mS/m, a horizontal source 10 m abeam):
+# the junction's reactance (-15 ohm for a 2 m lead over 5 mS/m, -146 over 1 mS/m, -175 and -1478 ohm for the 0.2 m
+# lead) left NEC's far end reflecting 0.11 (Beverage, 1 mS/m) and 0.86 (low wire, 1 mS/m) of the current where the
+# model's resistor reflects 0.06 and 0.24 (test_nec_far_end_and_line_against_the_model).
+KNOWN_MISSES: dict = {}
 
 
 def _id(c):
@@ -203,15 +178,17 @@ def _id(c):
 def test_near_source_ratio_against_nec(case):
     # Tolerance 2.5 dB (the brief's, up to 200 m) plus NEC's spread between its two segmentations for the case.
     # Measured, model over NEC (coarse; NEC's spread in brackets), the Beverages (150 and 90 m, 2 m up):
-    # - 5 mS/m: abeam 5-100 m, vertical sources 2-10 m up within 0.11 dB (0.15), horizontal within 0.26 (1.2); off
-    #   the far end within 0.16 (0.3) and 5 m off it within 1.8 (0.8, horizontal the most); behind the feed 10-60 m
-    #   within 1.7 (0.5); 5 m behind it -2.3 to +2.7 dB (2.0: the feed lead's near field, the source 6-10 m up);
-    # - 1 mS/m: abeam vertical -0.5 to +0.1 (0.6), horizontal -2.6 to +1.1 (2.7); off the far end within 1.3 (1.8);
-    #   behind within 1.0 (0.7), 5 m behind up to +3.2 (2.7), and the one miss below.
-    # The low wire (0.2 m, the Beverage family there, leads as NEC's deck): over 5 mS/m -1.0 dB abeam at every
-    # distance and height (0.2), within 0.8 off the far end, -1.1 to -2.8 behind; horizontal sources abeam, a null
-    # of the wire's own pickup, -1.0 to +10.9 with NEC's segmentations up to 13 dB apart.  Over 1 mS/m abeam
-    # vertical -1.8 (0.4), off the far end within 2.1; behind and horizontal abeam the misses below.
+    # - 5 mS/m: abeam 5-100 m (15 m included), vertical sources 2-10 m up within 0.16 dB (0.15), horizontal within
+    #   0.57 (0.85); off the far end within 0.3 (0.15), 5 m off it within 1.8 (0.8, horizontal); behind the feed
+    #   10-60 m within 1.8 (0.5); 5 m behind it -2.4 to +3.0 dB (1.6: the feed lead's near field, the source 6-10 m
+    #   up);
+    # - 1 mS/m: abeam vertical within 0.47 (0.35), horizontal -1.9 to +1.4 (1.1); off the far end within 1.3 (0.6);
+    #   behind within 1.2 for vertical sources, up to +3.9 for horizontal ones 10-60 m behind (a rear null: NEC's
+    #   segmentations 6.7 dB apart), 5 m behind within 2.2 (1.4).
+    # The low wire (0.2 m; the Beverage family there, leads as NEC's deck): within 0.3 dB for vertical sources
+    # everywhere over both soils (abeam 0.1 over 5 mS/m, 0.2 over 1 mS/m); horizontal sources within 1.1 over 5 mS/m,
+    # 2.0 over 1 mS/m (5 m abeam; there NEC's finer run, its junction 4.6 - 2.8j kohm and its far end still
+    # reflecting 0.5, is 14 dB away).
     name, gname, place, d, h, kind = case
     err = error_db(name, gname, "coarse", place, d, h, kind)
     err_fine = error_db(name, gname, "fine", place, d, h, kind)
@@ -253,43 +230,51 @@ def test_packaged_engine_is_the_patched_one_inside_its_interpolation_grid():
 @pytest.mark.parametrize("gname", ["loam", "dry"])
 def test_nec_far_end_and_line_against_the_model(name, gname):
     # NEC's current along the wire fitted as two travelling waves (make_nearwire.line_fit, residual under 1 %): its
-    # propagation constant against the model's line (velocity factor within 1 %, measured 0.2 %; attenuation within
-    # 25 %, measured 7-19 %, the model's the larger), and its far end's current reflection.  Over 5 mS/m the
-    # Beverages' far ends are the 500 ohm's (NEC 0.019-0.039, the model 0.040; NEC's far load with the junction taken
-    # out, read through the model's line, 505 + 6j ohm); over 1 mS/m NEC's is 0.11-0.26 (0.06 the model's) and the
-    # low wire's 0.26-0.90 (the model's 0.20-0.24): a reactive far end the resistive de-embedding leaves in place
-    # (through the model's line 554 - 147j ohm for the Beverages, 424 - 1689j for the low wire over 1 mS/m, coarse),
-    # the cause of the misses above.
+    # propagation constant against the model's line (velocity factor within 1 %, measured 0.3 %; attenuation within
+    # 25 %, measured 7-19 %, the model's the larger), and its far end's complex current reflection against the
+    # model's resistor on its line, -(R - Z0) / (R + Z0).  Measured, |NEC's - the model's| (coarse, fine;
+    # "-resistive" the coarse run with the junction's resistance alone taken out): Beverages over 5 mS/m 0.024,
+    # 0.026 (0.010), over 1 mS/m 0.062, 0.12 (0.135); the low wire over 5 mS/m 0.021, 0.27 (0.265), over 1 mS/m
+    # 0.077, 0.73 (1.07).  The low wire's finer runs (junctions of 1.2 and 4.6 kohm at 0.1 m segments) are not
+    # de-embedded as well as the coarse ones: their spread, which the near-source test adds to its tolerance,
+    # is the junction's more than the wire's.
     a = _antenna(name, gname)
     line = a.line(F)
     r = a.params.termination
-    model_rho = abs((r - line.z0) / (r + line.z0))
+    model = -(r - line.z0) / (r + line.z0)
     for seg in ("coarse", "fine"):
         fit = _run(name, gname, seg)["line_fit"]
         assert fit["residual"] < 0.01
         assert fit["velocity_factor"] == pytest.approx(line.velocity_factor, rel=0.01)
         assert fit["gamma_per_m"][0] == pytest.approx(line.gamma.real, rel=0.25)
-        nec_rho = abs(complex(*fit["far_current_reflection"]))
-        if gname == "loam" and name != "low":
-            assert nec_rho == pytest.approx(model_rho, abs=0.03)
-        elif name == "low" and gname == "dry":
-            assert nec_rho > 0.7 > 0.3 > model_rho  # NEC's low wire over 1 mS/m: nearly open at its far end
-        else:
-            assert nec_rho > model_rho
+    off = {
+        seg: abs(complex(*_run(name, gname, seg)["line_fit"]["far_current_reflection"]) - model)
+        for seg in ("coarse", "fine", "coarse-resistive")
+    }
+    assert off["coarse"] < 0.08
+    if name == "low":
+        assert off["fine"] > off["coarse"]
+    else:
+        assert off["fine"] < 0.13
+    if gname == "dry" or name == "low":  # where the junction's reactance is large against the termination
+        assert off["coarse-resistive"] > 2 * off["coarse"]
 
 
-def test_low_wire_limit_is_the_ends_not_the_wire():
+def test_low_wire_limit():
     # make_nearwire.low_wire_study over 5 mS/m at 0.05-0.5 m, three segmentations (40, 80, 160 per wavelength; 1, 2, 4
     # segments per lead).  The horizontal wire alone (open ends, centre-fed, no ground junction): gain along it within
     # 0.01 dB and feed impedance within 5 % (measured 4.5 % at 0.05 m) between segmentations at every height down to
-    # 0.05 m (61 wire radii): NEC-2's Sommerfeld thin-wire solution of the low horizontal wire has settled.  With leads
-    # to the ground at its ends (a BOG's rods), the junction (250 ohm at 0.5 m to 9.7 kohm at 0.05 m, growing as the
-    # lead's segments shorten) moves the front-to-back by 0.7-2.8 dB across the three runs at every height (2.8 dB at
-    # 0.2 m): NEC's terminated low wire is as good as its ends, not its height.  The near field 15 m abeam over the
-    # forward far field stays within 0.6 dB across them (0.15 dB at 0.05 m).
+    # 0.05 m (61 wire radii): NEC-2's Sommerfeld thin-wire solution of the low horizontal wire has settled there.  With
+    # leads to the ground at its ends (a BOG's rods; the junction, 250 - 69j ohm at 0.5 m to 9.7 - 2.8j kohm at 0.05
+    # m, taken out): at 0.2 m and above the front-to-back within 1.7 dB across the three (measured 1.7, 1.1, 1.5 dB at
+    # 0.2, 0.3, 0.5 m) and the near field 15 m abeam over the forward far field within 0.25 dB; at 0.1 m they move
+    # by 5.2 and 1.1 dB, at 0.05 m by 9.5 and 2.5 dB.  So 0.2 m is the lowest height at which NEC-2 gives a
+    # terminated low wire with grounded ends here (AWG 14, 100 m, 5 mS/m, 1.83 MHz), and the height of the stored
+    # low wire.
     study = REF["low_wire_study"]
     open_wire = study["open_wire"]
-    for h in {r["height_m"] for r in open_wire}:
+    assert min(r["height_m"] for r in open_wire) <= 0.05
+    for h in sorted({r["height_m"] for r in open_wire}):
         runs = [r for r in open_wire if r["height_m"] == h]
         gains = [r["gain_along_dbi"] for r in runs]
         z = [abs(complex(*r["feed_impedance_ohm"])) for r in runs]
@@ -298,16 +283,22 @@ def test_low_wire_limit_is_the_ends_not_the_wire():
         leaded = [r for r in study["runs"] if r["height_m"] == h]
         fb = [r["front_to_back_db"] for r in leaded]
         near = [r["near_ez_over_forward_db"] for r in leaded]
-        assert max(fb) - min(fb) > 0.5  # the ends' junction moves the rear
-        assert max(near) - min(near) < 0.8
-    assert min(r["height_m"] for r in open_wire) <= 0.05
+        if h >= REF["wires"]["low"]["height_m"]:
+            assert max(fb) - min(fb) < 2.0 and max(near) - min(near) < 0.3, h
+        else:
+            assert max(fb) - min(fb) > 4.0 and max(near) - min(near) > 1.0, h
 
 
 def test_bog_family_reads_the_low_wire_broadside_as_the_beverage_family():
     # The BOG family (no down-leads; its insulation 0.01 mm, eps_r 1: a bare wire) at NEC's low wire's 0.2 m has the
     # same line as the Beverage family there (gamma and Z0 equal to 1e-3) and reads vertical sources abeam the same
-    # within 0.6 dB (measured 0.54 dB at 100 m, 0.06 dB at 5-15 m); off the ends it departs (it lacks the leads NEC's
-    # deck and the Beverage family have: a source 5 m beyond the far end, 6 m up, -5.1 dB against NEC's +-0.7).
+    # within 0.6 dB (measured 0.54 dB at 100 m, 0.06 dB at 5-15 m).  Off the ends it departs from NEC's wire, which has
+    # 0.2 m leads to its ground connections as the Beverage family has: against NEC, horizontal sources behind the
+    # feed and beyond the far end read +6.8 to +12.9 dB over 5 mS/m (up to +5.1 over 1 mS/m), vertical ones 5 m
+    # beyond the far end -4.4 to +4.7 dB; the Beverage family there within 2 dB.  Close to a wire that low its
+    # ends' vertical parts, even 0.2 m of them, hear a source off its ends as much as the wire does (the vertical
+    # field near the soil is the larger one): a BOG's end connections count for sources off its ends (to the 30 m
+    # studied here; the BOG family has none, its ends go straight into the soil).
     for gname in ("loam", "dry"):
         bev, bog = _antenna("low", gname), _antenna("low", gname, "bog")
         assert bog.line(F).gamma == pytest.approx(bev.line(F).gamma, rel=1e-3)

@@ -8,9 +8,14 @@ end) at 20 deg elevation, gives by reciprocity what a small dipole source at eac
 the wire's own forward plane wave delivers.  The feed current drops out of that ratio, and with it whatever sits in
 series with the feed: the feed lead's wire-to-ground junction (make_deembedded.py) among them.  The far lead's
 junction does not drop out: it adds to the termination and so shapes the current (the reflected wave).  Each deck
-therefore takes it out as make_deembedded.py does (a stub of the same lead measures it, load cards subtract it;
-the model's connections are then zero ohm), and one run per wire keeps NEC's junction in place ("raw") to show
-what it moves.
+therefore takes it out at both ends, as make_deembedded.py does but as an impedance, not a resistance alone
+(``junction``: the input impedance of a stub of the same lead on the Sommerfeld ground less the same stub's on a
+perfect ground, which is the short monopole's own; series loads LD 4 subtract it; the model's connections are then
+zero ohm).  The junction is reactive: -15 ohm with its 62 ohm for a 2 m lead over 5 mS/m, -146 with 244 over
+1 mS/m, -175 with 615 and -1478 with 2421 for a 0.2 m lead.  Two more runs per wire show what that does: the
+junction's resistance alone taken out ("-resistive", make_deembedded.py's way) and NEC's junction kept ("-raw").
+Where the reactance is large against the termination (1 mS/m; the low wire) the resistive runs leave NEC's far
+end reflecting up to 0.86 of the current against the 300 ohm's 0.24 (``line_fit``, test_near_wire.py).
 
 The engine: Debian's nec2c, not the project's patched one (tests/nec/build_nec2c.sh), which is not built here.
 Packaged nec2c goes wrong only where its Sommerfeld interpolation ends: NEC-2 reads the ground's field from its
@@ -37,12 +42,15 @@ Wires (1.83 MHz; AWG 14; eps_r 13, 5 mS/m and eps_r 5, 1 mS/m, GN 2):
   measured here (``low_wire_study``, over 5 mS/m at 0.05-0.5 m, three segmentations down to 1 m along the wire):
   the horizontal wire alone (open ends, centre-fed, no ground junction) gives the same gain along it within 0.01 dB
   and feed impedance within 5 % at every height down to 0.05 m (61 radii): the Sommerfeld solution of the low
-  horizontal wire holds to 0.05 m at least.  What does not hold is its grounded ends: the lead-to-ground junction
-  is 250 ohm at 0.5 m and 2.4-9.7 kohm at 0.05 m (growing as the lead's segments shorten), above a BOG's
-  termination below about 0.5 m, and the front-to-back of the terminated wire moves by 0.7-2.8 dB across the
-  segmentations at every height.  0.2 m is the height run (the BOG family's range reaches 0.3 m): there the
-  wire is right and its ends are NEC's weak part; each run stores what NEC's current says of the far end
-  (``line_fit``).
+  horizontal wire holds to 0.05 m at least.  What limits it is its grounded ends: the lead-to-ground junction is
+  250 - 69j ohm at 0.5 m and 2.4-9.7 kohm at 0.05 m (growing as the lead's segments shorten).  With it taken out
+  the terminated wire's front-to-back stays within 1.7 dB across the three segmentations at 0.2, 0.3 and 0.5 m
+  (its near field 15 m abeam over its forward far field within 0.25 dB), and moves by 5.2 dB at 0.1 m and 9.5 dB
+  at 0.05 m (1.1 and 2.5 dB for the near-field ratio).  So 0.2 m is the lowest height NEC-2 gives such a wire
+  here, and the stored low wire stands there (the BOG family's range reaches 0.3 m).  Its finer run (two 0.1 m
+  segments per lead, a 1.2 kohm junction over 5 mS/m, 4.6 kohm over 1 mS/m) is de-embedded less well than the
+  coarse one (its far end's current reflection 0.27 and 0.73 away from the 300 ohm's, the coarse one's 0.02
+  and 0.08).
 
 Each run's current along the wire is also fitted as two travelling waves (``line_fit``): the propagation constant
 and the far end's current reflection NEC's solution implies, to compare with the model's line and termination
@@ -68,7 +76,7 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parents[1]))
 
-from tests.nec.make_deembedded import junction_ohm, stub_deck  # noqa: E402
+from tests.nec.make_deembedded import stub_deck  # noqa: E402
 from tests.nec.make_nearcompact import far_field, near_fields  # noqa: E402
 from tests.nec.necdeck import run_nec2c  # noqa: E402
 
@@ -96,8 +104,9 @@ STUDY_SEGMENTATIONS = [(40, 1), (80, 2), (160, 4)]
 """(segments per wavelength along the wire, per lead) of the low-wire study: down to 1 m along it."""
 
 
-def wire_cards(w: dict, ground, spl: int, nl: int, r_j: float | None) -> list[str]:
-    """GW/GE/GN/LD cards of a terminated wire with leads; ``r_j`` the junction taken out at both ends (None: kept)."""
+def wire_cards(w: dict, ground, spl: int, nl: int, z_j: complex | None) -> list[str]:
+    """GW/GE/GN/LD cards of a terminated wire with leads; ``z_j`` the junction's impedance taken out at both ends
+    by series loads (LD 4: resistance and reactance at the frequency; None: NEC's junction kept)."""
     length, h = w["length_m"], w["height_m"]
     ns = int(np.ceil(length / (WAVELENGTH_M / spl)))
     cards = [
@@ -107,16 +116,16 @@ def wire_cards(w: dict, ground, spl: int, nl: int, r_j: float | None) -> list[st
         "GE 1",
         f"GN 2 0 0 0 {ground[0]:g} {ground[1]:g}",
     ]
-    rj = 0.0 if r_j is None else r_j
-    cards.append(f"LD 0 3 {nl} {nl} {w['termination_ohm'] - rj:.3f} 0 0")
-    if rj:
-        cards.append(f"LD 0 1 1 1 {-rj:.3f} 0 0")
+    zj = 0j if z_j is None else complex(z_j)
+    cards.append(f"LD 4 3 {nl} {nl} {w['termination_ohm'] - zj.real:.3f} {-zj.imag:.3f}")
+    if zj:
+        cards.append(f"LD 4 1 1 1 {-zj.real:.3f} {-zj.imag:.3f}")
     return cards
 
 
-def deck(name: str, w: dict, ground, spl: int, nl: int, r_j: float | None, pts: list[dict]) -> str:
+def deck(name: str, w: dict, ground, spl: int, nl: int, z_j: complex | None, pts: list[dict]) -> str:
     lines = [f"CM {name}: transmitting, near fields at source points (snrgain near-source validation case)", "CE"]
-    lines += wire_cards(w, ground, spl, nl, r_j)
+    lines += wire_cards(w, ground, spl, nl, z_j)
     lines += [f"FR 0 1 0 0 {FREQ_MHZ:g} 0", "EX 0 1 1 0 1 0"]
     for p in pts:
         x, y, z = p["xyz_m"]
@@ -145,16 +154,24 @@ def points(w: dict) -> list[dict]:
     return out
 
 
-def junction(w: dict, ground, nl: int, work: Path) -> float:
-    stub = stub_deck(
-        freq_mhz=FREQ_MHZ,
-        height_m=w["height_m"],
-        segments=nl,
-        radius_m=AWG14_M,
-        permittivity=ground[0],
-        conductivity_s_per_m=ground[1],
-    )
-    return junction_ohm(run_nec2c(stub, work, "stub"))
+def junction(w: dict, ground, nl: int, work: Path) -> complex:
+    """NEC's wire-to-ground junction at a lead of the wire's height and ``nl`` segments [ohm]: the input impedance of
+    that lead alone standing on the Sommerfeld ground (make_deembedded.stub_deck) less the same stub's over a
+    perfect ground (GN 1, no junction), which takes out the short monopole's own reactance and leaves the
+    junction's resistance and reactance (make_deembedded.py subtracts the resistance alone)."""
+    out = []
+    for gn in (f"GN 2 0 0 0 {ground[0]:g} {ground[1]:g}", "GN 1"):
+        stub = stub_deck(
+            freq_mhz=FREQ_MHZ,
+            height_m=w["height_m"],
+            segments=nl,
+            radius_m=AWG14_M,
+            permittivity=ground[0],
+            conductivity_s_per_m=ground[1],
+        )
+        stub = re.sub(r"^GN .*$", gn, stub, flags=re.M)
+        out.append(complex(*feed_impedance(run_nec2c(stub, work, "stub"))))
+    return out[0] - out[1]
 
 
 def feed_impedance(text: str) -> list[float]:
@@ -216,27 +233,33 @@ def line_fit(x: np.ndarray, current: np.ndarray, length_m: float) -> dict:
     }
 
 
-def one_run(name, w, gname, seg, work, *, deembed=True, pts=None) -> dict:
+VARIANTS = {"": "complex", "-resistive": "resistive", "-raw": None}
+"""Run name suffix: how NEC's junction is taken out (its impedance, its resistance alone, or not at all)."""
+
+
+def one_run(name, w, gname, seg, work, *, variant="", pts=None) -> dict:
     ground = GROUNDS[gname]
     spl, nl = SEGMENTS_PER_WAVELENGTH[seg], LEAD_SEGMENTS[seg]
     pts = points(w) if pts is None else pts
-    r_j = junction(w, ground, nl, work)
-    text_deck = deck(name, w, ground, spl, nl, r_j if deembed else None, pts)
+    z_j = junction(w, ground, nl, work)
+    how = VARIANTS[variant]
+    taken = None if how is None else (z_j if how == "complex" else complex(z_j.real, 0.0))
+    text_deck = deck(name, w, ground, spl, nl, taken, pts)
     text = run_nec2c(text_deck, work, "near")
     fields = near_fields(text)
     assert len(fields) == len(pts)
-    variant = ["coarse", "fine"][seg] + ("" if deembed else "-raw")
-    deck_name = f"cases/nearwire-{name}-{gname}-{variant}.nec"
+    label = ["coarse", "fine"][seg] + variant
+    deck_name = f"cases/nearwire-{name}-{gname}-{label}.nec"
     (HERE / deck_name).write_text(text_deck)
     return {
         "wire": name,
         "ground": gname,
-        "segmentation": variant,
+        "segmentation": label,
         "deck": deck_name,
         "segments_per_wavelength": spl,
         "lead_segments": nl,
-        "junction_ohm": round(r_j, 2),
-        "junction_taken_out": deembed,
+        "junction_ohm": [round(z_j.real, 2), round(z_j.imag, 2)],
+        "junction_taken_out": how,
         "feed_impedance_ohm": feed_impedance(text),
         "line_fit": line_fit(*wire_currents(text), w["length_m"]),
         "forward": far_field(text),
@@ -304,8 +327,8 @@ def low_wire_study(work: Path) -> dict:
         w = {**LOW_WIRE, "height_m": h}
         for seg, (spl, nl) in enumerate(STUDY_SEGMENTATIONS):
             ground = GROUNDS["loam"]
-            r_j = junction(w, ground, nl, work)
-            cards = wire_cards(w, ground, spl, nl, r_j)
+            z_j = junction(w, ground, nl, work)
+            cards = wire_cards(w, ground, spl, nl, z_j)
             pt = [50.0, 15.0, 2.0]
             lines = ["CM low wire height study", "CE", *cards, f"FR 0 1 0 0 {FREQ_MHZ:g} 0", "EX 0 1 1 0 1 0"]
             lines += [f"NE 0 1 1 1 {pt[0]:g} {pt[1]:g} {pt[2]:g} 0 0 0"]
@@ -321,7 +344,7 @@ def low_wire_study(work: Path) -> dict:
                     "segmentation": ["coarse", "fine", "finest"][seg],
                     "segments_per_wavelength": spl,
                     "lead_segments": nl,
-                    "junction_ohm": round(r_j, 2),
+                    "junction_ohm": [round(z_j.real, 2), round(z_j.imag, 2)],
                     "feed_impedance_ohm": feed_impedance(text),
                     "forward_gain_dbi": gains[0],
                     "front_to_back_db": gains[0] - gains[1],
@@ -389,8 +412,9 @@ def main():
             for gname in GROUNDS:
                 for seg in (0, 1):
                     out["runs"].append(one_run(name, w, gname, seg, work))
-                    print(name, gname, seg, out["runs"][-1]["junction_ohm"], len(out["runs"][-1]["points"]))
-                out["runs"].append(one_run(name, w, gname, 0, work, deembed=False))
+                    print(name, gname, seg, out["runs"][-1]["junction_ohm"], len(out["runs"][-1]["points"]), flush=True)
+                for variant in ("-resistive", "-raw"):
+                    out["runs"].append(one_run(name, w, gname, 0, work, variant=variant))
         out["low_wire_study"] = low_wire_study(work)
         out["low_wire_study"]["open_wire"] = open_wire_study(work)
     (HERE / "nearwire.json").write_text(json.dumps(out, indent=0) + "\n")
