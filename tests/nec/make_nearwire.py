@@ -12,8 +12,9 @@ therefore takes it out at both ends, as make_deembedded.py does but as an impeda
 (``junction``: the input impedance of a stub of the same lead on the Sommerfeld ground less the same stub's on a
 perfect ground, which is the short monopole's own; series loads LD 4 subtract it; the model's connections are then
 zero ohm).  The junction is reactive: -15 ohm with its 62 ohm for a 2 m lead over 5 mS/m, -146 with 244 over
-1 mS/m, -175 with 615 and -1478 with 2421 for a 0.2 m lead.  Two more runs per wire show what that does: the
-junction's resistance alone taken out ("-resistive", make_deembedded.py's way) and NEC's junction kept ("-raw").
+1 mS/m, -175 with 615 and -1478 with 2421 for a 0.2 m lead.  Three more coarse runs per wire: the junction's
+resistance alone taken out ("-resistive", make_deembedded.py's way), NEC's junction kept ("-raw"), and the far
+end's junction taken out alone ("-feedkept", a check of the argument above: the same ratios within 0.0035 dB).
 Where the reactance is large against the termination (1 mS/m; the low wire) the resistive runs leave NEC's far
 end reflecting up to 0.86 of the current against the 300 ohm's 0.24 (``line_fit``, test_near_wire.py).
 
@@ -104,9 +105,10 @@ STUDY_SEGMENTATIONS = [(40, 1), (80, 2), (160, 4)]
 """(segments per wavelength along the wire, per lead) of the low-wire study: down to 1 m along it."""
 
 
-def wire_cards(w: dict, ground, spl: int, nl: int, z_j: complex | None) -> list[str]:
+def wire_cards(w: dict, ground, spl: int, nl: int, z_j: complex | None, *, feed_end: bool = True) -> list[str]:
     """GW/GE/GN/LD cards of a terminated wire with leads; ``z_j`` the junction's impedance taken out at both ends
-    by series loads (LD 4: resistance and reactance at the frequency; None: NEC's junction kept)."""
+    by series loads (LD 4: resistance and reactance at the frequency; None: NEC's junction kept), at the far end
+    alone with ``feed_end`` False."""
     length, h = w["length_m"], w["height_m"]
     ns = int(np.ceil(length / (WAVELENGTH_M / spl)))
     cards = [
@@ -118,14 +120,14 @@ def wire_cards(w: dict, ground, spl: int, nl: int, z_j: complex | None) -> list[
     ]
     zj = 0j if z_j is None else complex(z_j)
     cards.append(f"LD 4 3 {nl} {nl} {w['termination_ohm'] - zj.real:.3f} {-zj.imag:.3f}")
-    if zj:
+    if zj and feed_end:
         cards.append(f"LD 4 1 1 1 {-zj.real:.3f} {-zj.imag:.3f}")
     return cards
 
 
-def deck(name: str, w: dict, ground, spl: int, nl: int, z_j: complex | None, pts: list[dict]) -> str:
+def deck(name: str, w: dict, ground, spl: int, nl: int, z_j: complex | None, pts: list[dict], **kw) -> str:
     lines = [f"CM {name}: transmitting, near fields at source points (snrgain near-source validation case)", "CE"]
-    lines += wire_cards(w, ground, spl, nl, z_j)
+    lines += wire_cards(w, ground, spl, nl, z_j, **kw)
     lines += [f"FR 0 1 0 0 {FREQ_MHZ:g} 0", "EX 0 1 1 0 1 0"]
     for p in pts:
         x, y, z = p["xyz_m"]
@@ -233,8 +235,9 @@ def line_fit(x: np.ndarray, current: np.ndarray, length_m: float) -> dict:
     }
 
 
-VARIANTS = {"": "complex", "-resistive": "resistive", "-raw": None}
-"""Run name suffix: how NEC's junction is taken out (its impedance, its resistance alone, or not at all)."""
+VARIANTS = {"": "complex", "-resistive": "resistive", "-raw": None, "-feedkept": "far end only"}
+"""Run name suffix: how NEC's junction is taken out (its impedance, its resistance alone, not at all, or its
+impedance at the far end alone: the feed end's junction, in series with the feed, must drop out of the ratio)."""
 
 
 def one_run(name, w, gname, seg, work, *, variant="", pts=None) -> dict:
@@ -243,8 +246,8 @@ def one_run(name, w, gname, seg, work, *, variant="", pts=None) -> dict:
     pts = points(w) if pts is None else pts
     z_j = junction(w, ground, nl, work)
     how = VARIANTS[variant]
-    taken = None if how is None else (z_j if how == "complex" else complex(z_j.real, 0.0))
-    text_deck = deck(name, w, ground, spl, nl, taken, pts)
+    taken = None if how is None else (complex(z_j.real, 0.0) if how == "resistive" else z_j)
+    text_deck = deck(name, w, ground, spl, nl, taken, pts, feed_end=how != "far end only")
     text = run_nec2c(text_deck, work, "near")
     fields = near_fields(text)
     assert len(fields) == len(pts)
@@ -413,7 +416,7 @@ def main():
                 for seg in (0, 1):
                     out["runs"].append(one_run(name, w, gname, seg, work))
                     print(name, gname, seg, out["runs"][-1]["junction_ohm"], len(out["runs"][-1]["points"]), flush=True)
-                for variant in ("-resistive", "-raw"):
+                for variant in ("-resistive", "-raw", "-feedkept"):
                     out["runs"].append(one_run(name, w, gname, 0, work, variant=variant))
         out["low_wire_study"] = low_wire_study(work)
         out["low_wire_study"]["open_wire"] = open_wire_study(work)
