@@ -266,7 +266,7 @@ def one_run(name, w, gname, seg, work, *, variant="", pts=None) -> dict:
         "feed_impedance_ohm": feed_impedance(text),
         "line_fit": line_fit(*wire_currents(text), w["length_m"]),
         "forward": far_field(text),
-        "points": [{**p, "e": e} for p, e in zip(pts, fields)],
+        "points": [{**p, "e": [[float(f"{v:.6g}") for v in c] for c in e]} for p, e in zip(pts, fields)],
     }
 
 
