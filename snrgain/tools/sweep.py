@@ -602,15 +602,21 @@ def connect(address: str, *, timeout_s: float = 8.0):
     except ImportError:
         raise ValueError("--dask needs Dask's distributed scheduler: pip install 'snrgain[scale]'") from None
     if address == "local":
-        cluster = LocalCluster(
-            n_workers=0,
-            threads_per_worker=1,
-            processes=True,
-            dashboard_address=None,
-            preload=[__name__],
-            # the workers' statistical profiler samples every thread's stack 100 times a second: off
-            config={"distributed.worker.profile.enabled": False},  # set in each worker (dotted: that key alone)
-        )
+        import dask
+
+        # the scheduler (in this process) balances nothing between two workers fed in order: its work stealing,
+        # run ten times a second, off
+        with dask.config.set({"distributed.scheduler.work-stealing": False}):
+            cluster = LocalCluster(
+                n_workers=0,
+                threads_per_worker=1,
+                processes=True,
+                dashboard_address=None,
+                preload=[__name__],
+                # the workers' statistical profiler samples every thread's stack 100 times a second: off (set in
+                # each worker; dotted, so that key alone)
+                config={"distributed.worker.profile.enabled": False},
+            )
         cluster.scale(LOCAL_WORKERS)  # does not wait for them
         return Client(cluster)
     try:
