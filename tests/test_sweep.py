@@ -174,6 +174,34 @@ def test_chunks_sized_from_the_work_per_design_not_the_shared_set_up(monkeypatch
     assert len(list(csv.DictReader(out.open()))) == 10 * 2
 
 
+def test_cluster_chunks_are_larger_yet_several_per_worker(monkeypatch, tmp_path):
+    # On a cluster each task costs the scheduler and the worker a few milliseconds: chunks hold up to
+    # TARGET_DASK_CHUNK_S of work, yet every worker gets CHUNKS_PER_WORKER of them (here the share binds).
+    study = _study("Beverage toward Europe: length = 150 m to 399 m by 2 m")  # 125 designs
+    sizes = []
+
+    class Client:  # what run asks of a client: its workers
+        def scheduler_info(self):
+            return {"workers": {"tcp://a": {}, "tcp://b": {}}}
+
+    def on_dask(st, chunks, client):
+        for block in chunks:
+            sizes.append(len(block))
+            yield len(block), sw.run_designs(st, block)
+
+    monkeypatch.setattr(sw, "connect", lambda address: Client())
+    monkeypatch.setattr(sw, "close", lambda client: None)
+    monkeypatch.setattr(sw, "_on_dask", on_dask)
+    monkeypatch.setattr(sw, "TARGET_CHUNK_S", 1e-6)  # in one process: a design a chunk
+    monkeypatch.setattr(sw, "TARGET_DASK_CHUNK_S", 100.0)
+    out = tmp_path / "s.csv"
+    sw.run(study, out, dask="tcp://fake:1")
+    share = -(-sum(sizes) // (2 * sw.CHUNKS_PER_WORKER))  # the designs after those timed in this process
+    assert sizes[:-1] == [share] * (len(sizes) - 1) and 1 <= sizes[-1] <= share, sizes
+    assert 2 * sw.CHUNKS_PER_WORKER - 1 <= len(sizes) <= 2 * sw.CHUNKS_PER_WORKER, sizes
+    assert len(list(csv.DictReader(out.open()))) == 125 * 2
+
+
 def test_a_sweep_may_rename_a_candidate_and_a_long_one_is_asked_for(tmp_path):
     # Issue 28: `--vary 'X: name = a, b'` ended in a StopIteration traceback; a million designs ran silently.
     out = tmp_path / "n.csv"

@@ -478,7 +478,7 @@ TARGET_CHUNK_S = 0.1
 """A chunk of designs holds about this much work [s] (enough to keep a cluster's overhead small)."""
 PROBE_DESIGNS = 5
 PROBE_S = 0.05
-"""The work per design is timed on the designs after the first, up to PROBE_DESIGNS of them or PROBE_S [s]."""
+"""The work per design is timed on the designs after the first, up to PROBE_DESIGNS of them or PROBE_S [s] of CPU."""
 
 
 def run(
@@ -495,13 +495,24 @@ def run(
     ``dask``: "local" for a LocalCluster on this machine, or a scheduler's address.  ``progress(n)`` is called
     with the number of designs done after each chunk.  Returns the number of designs.
     """
-    from snrgain.files import write_atomic
-
     fmt = output_format(output)
     validate(study)
     total = design_count(study.varies)
     numbered = enumerate(designs(study.varies))
+    # A cluster's workers start (and import what a design needs, :func:`dask_setup`) while this process works out
+    # the first designs below; a scheduler that cannot be reached is said before any of them.
+    client = connect(dask) if dask is not None else None
+    try:
+        return _run(study, output, fmt, total, numbered, client, overwrite, progress, chunk_designs)
+    finally:
+        if client is not None:
+            close(client)
+
+
+def _run(study, output, fmt, total, numbered, client, overwrite, progress, chunk_designs) -> int:
     import time
+
+    from snrgain.files import write_atomic
 
     # The first design also builds what every design shares (the sky, the reference): its time would make
     # every chunk a single design.  The chunks are sized from the designs after it, timed one by one.
@@ -509,16 +520,22 @@ def run(
     n_head = 1
     size = chunk_designs
     if size is None:
-        n_probe, t0 = 0, time.perf_counter()
-        while n_probe < PROBE_DESIGNS and time.perf_counter() - t0 < PROBE_S:
+        # CPU time of this thread: on shared cores (a cluster's workers starting beside it) the wall time of a
+        # design counts the waits for a core, and would make the chunks too small
+        n_probe, t0 = 0, time.thread_time()
+        while n_probe < PROBE_DESIGNS and time.thread_time() - t0 < PROBE_S:
             block = list(itertools.islice(numbered, 1))
             if not block:
                 break
             head_rows += run_designs(study, block)
             n_probe += 1
-        per_design = max((time.perf_counter() - t0) / n_probe, 1e-5) if n_probe else 1e-4
+        per_design = max((time.thread_time() - t0) / n_probe, 1e-5) if n_probe else 1e-4
         n_head += n_probe
         size = max(1, int(TARGET_CHUNK_S / per_design))
+        if client is not None:  # fewer, larger tasks, yet several per worker so that none waits for the last
+            workers = max(1, len(client.scheduler_info().get("workers", {})) or LOCAL_WORKERS)
+            share = math.ceil((total - n_head) / (CHUNKS_PER_WORKER * workers))
+            size = max(size, min(int(TARGET_DASK_CHUNK_S / per_design), share))
 
     def chunks():
         while True:
@@ -534,7 +551,7 @@ def run(
             done = n_head
             if progress:
                 progress(done)
-            results = _in_process(study, chunks()) if dask is None else _on_dask(study, chunks(), dask)
+            results = _in_process(study, chunks()) if client is None else _on_dask(study, chunks(), client)
             for n, rows in results:
                 writer.write(rows)
                 done += n
@@ -565,15 +582,42 @@ def _reachable(address: str, timeout_s: float) -> None:
         pass
 
 
+LOCAL_WORKERS = 2
+"""Workers of ``--dask local``: one single-threaded worker per core of a 2-core machine."""
+TARGET_DASK_CHUNK_S = 0.5
+"""On a cluster a chunk holds about this much work [s]: each task costs the scheduler, the worker and this process
+a few milliseconds, so fewer, larger ones pay ..."""
+CHUNKS_PER_WORKER = 8
+"""... but each worker gets at least this many, so that the last one finishing alone costs little."""
+WORKERS_TIMEOUT_S = 60.0
+"""How long a sweep waits for its first worker (all of ``--dask local``'s)."""
+
+
 def connect(address: str, *, timeout_s: float = 8.0):
-    """A Dask client: a LocalCluster of two single-threaded workers for "local", else the scheduler at
-    ``address``; ValueError naming --dask when it cannot be reached within ``timeout_s``."""
+    """A Dask client: a LocalCluster of two single-threaded workers for "local" (returned at once: its workers start
+    in the background, each importing what a design needs, :func:`dask_setup`), else the scheduler at ``address``;
+    ValueError naming --dask when it cannot be reached within ``timeout_s``."""
     try:
         from distributed import Client, LocalCluster
     except ImportError:
         raise ValueError("--dask needs Dask's distributed scheduler: pip install 'snrgain[scale]'") from None
     if address == "local":
-        cluster = LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None)
+        import dask
+
+        # the scheduler (in this process) balances nothing between two workers fed in order: its work stealing,
+        # run ten times a second, off
+        with dask.config.set({"distributed.scheduler.work-stealing": False}):
+            cluster = LocalCluster(
+                n_workers=0,
+                threads_per_worker=1,
+                processes=True,
+                dashboard_address=None,
+                preload=[__name__],
+                # the workers' statistical profiler samples every thread's stack 100 times a second: off (set in
+                # each worker; dotted, so that key alone)
+                config={"distributed.worker.profile.enabled": False},
+            )
+        cluster.scale(LOCAL_WORKERS)  # does not wait for them
         return Client(cluster)
     try:
         _reachable(address, timeout_s)  # a refused port says so at once (the client would retry to its timeout)
@@ -585,31 +629,51 @@ def connect(address: str, *, timeout_s: float = 8.0):
         ) from None
 
 
+def close(client) -> None:
+    """Close a client, and the LocalCluster it started."""
+    cluster = getattr(client, "cluster", None)
+    client.close()
+    if cluster is not None:
+        cluster.close()
+
+
+def dask_setup(worker=None) -> None:
+    """Run by each worker of ``--dask local`` as it starts (Dask's ``preload``): its process keeps freed memory for the
+    next array as the command line's does (snrgain.allocator; without it a worker's patterns ran 1.7 times slower
+    than in-process), and imports the modules a design needs, so that the first chunk does not wait for them."""
+    from snrgain.allocator import tune
+
+    tune()
+    import snrgain.decide.lot  # noqa: F401
+    import snrgain.model.pipeline  # noqa: F401
+    import snrgain.physics.modal  # noqa: F401
+    import snrgain.scenario  # noqa: F401
+
+
 def _run_on_worker(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
-    """:func:`run_designs` on a Dask worker, whose process first keeps freed memory for the next array as the command
-    line's does (snrgain.allocator; without it a worker's patterns ran 1.7 times slower than in-process)."""
+    """:func:`run_designs` on a Dask worker (one of a scheduler given by its address too: :func:`dask_setup`'s
+    allocator setting made once)."""
     from snrgain.allocator import tune
 
     tune()
     return run_designs(study, chunk)
 
 
-def _on_dask(study, chunks, address):
+def _on_dask(study, chunks, client):
     """Chunks on a Dask cluster, a few in flight per worker, results taken back in order."""
-    client = connect(address)
+    local = getattr(client, "cluster", None) is not None
     try:
-        study_future = client.scatter(study, broadcast=True)
+        client.wait_for_workers(LOCAL_WORKERS if local else 1, timeout=WORKERS_TIMEOUT_S)
+    except TimeoutError:
+        where = "the local cluster's workers did not start" if local else "the scheduler has no worker"
+        raise ValueError(f"--dask: {where} within {WORKERS_TIMEOUT_S:.0f} s") from None
+    study_future = client.scatter(study, broadcast=True)
+    pending = []
+    for block in chunks:
         window = max(2, 2 * len(client.scheduler_info().get("workers", {})))
-        pending = []
-        for block in chunks:
-            pending.append((len(block), client.submit(_run_on_worker, study_future, block, pure=False)))
-            if len(pending) >= window:
-                n, fut = pending.pop(0)
-                yield n, fut.result()
-        for n, fut in pending:
+        pending.append((len(block), client.submit(_run_on_worker, study_future, block, pure=False)))
+        while len(pending) >= window:
+            n, fut = pending.pop(0)
             yield n, fut.result()
-    finally:
-        cluster = getattr(client, "cluster", None)
-        client.close()
-        if cluster is not None:
-            cluster.close()
+    for n, fut in pending:
+        yield n, fut.result()
