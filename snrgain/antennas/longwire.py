@@ -500,6 +500,8 @@ def port_response(freq_hz: float, current, *, load_ohm: float, elevation_rad, po
     return np.where(above_horizon(elevation_rad), scale * current, 0.0)
 
 
+_FORM_BYTES_KEY_SIZE = 512
+"""Up to this many directions a wire's forms are kept by the directions' values, beyond by their geometry object."""
 _FORMS = Memo(48)
 """A wire's response forms on a set of directions (:meth:`LongWire._response_forms`), by everything but its
 resistor."""
@@ -711,10 +713,15 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             )
             return (*forms[:2], w.el, geo)
 
-        # The direction set by its geometry object (direction_geometry keeps one per set, checked value for value):
-        # the kept forms hold it, so no other object can take its id while the key is kept.
-        geo = direction_geometry(az, el)
-        key = (self._form_key, float(freq_hz), id(geo))
+        if az.size <= _FORM_BYTES_KEY_SIZE:  # a few directions (a resistor's figure): their values are the key
+            geo = None
+            key = (self._form_key, float(freq_hz), az.shape, az.tobytes(), el.tobytes())
+        else:
+            # A grid by its geometry object (direction_geometry keeps one per set, checked value for value; hashing a
+            # sky's values cost more than a vertical's pattern): the kept forms hold it, so no other object can take
+            # its id while the key is kept.
+            geo = direction_geometry(az, el)
+            key = (self._form_key, float(freq_hz), id(geo))
         return _FORMS.get(key, make)[:3]
 
     def _form_powers(self, freq_hz, azimuth_rad, elevation_rad):
