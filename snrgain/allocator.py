@@ -9,7 +9,9 @@ MALLOC_MMAP_THRESHOLD_ and MALLOC_TRIM_THRESHOLD_ (glibc's mallopt(3)).  It chan
 freed memory waits.  Elsewhere than glibc, or with SNRGAIN_KEEP_MALLOC set, it does nothing.
 
 It is a process-wide setting, so only the command line makes it (``snrgain.cli.main.main``); ``import snrgain``
-does not.  A program of one's own may call :func:`tune`.
+does not.  A program of one's own may call :func:`tune`.  The cyclic garbage collector's threshold
+(:func:`collect_less`) is the command line's other process-wide setting, kept here too so that a sweep's Dask
+workers make both.
 """
 
 from __future__ import annotations
@@ -40,3 +42,17 @@ def tune() -> bool:
         return bool(ok)
     except (OSError, AttributeError):  # not glibc
         return False
+
+
+GC_FIRST_THRESHOLD = 100_000
+"""New container objects between two passes of the cyclic collector's youngest generation in the command line's
+process and in a local Dask cluster's workers (snrgain.cli explains why)."""
+
+
+def collect_less() -> None:
+    """Raise the cyclic collector's first threshold to :data:`GC_FIRST_THRESHOLD` (a process that set a higher one
+    keeps it)."""
+    import gc
+
+    if gc.get_threshold()[0] < GC_FIRST_THRESHOLD:
+        gc.set_threshold(GC_FIRST_THRESHOLD, *gc.get_threshold()[1:])

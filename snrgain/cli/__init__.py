@@ -13,16 +13,15 @@ the realistic benchmark site, for almost no garbage (numerical work makes arrays
 command line raises that threshold to :data:`GC_FIRST_THRESHOLD`; the collector still runs, less often.
 """
 
-import gc
 import os
 import sys
 
-GC_FIRST_THRESHOLD = 100_000
-"""New container objects between two passes of the collector's youngest generation in the command's process."""
+from snrgain.allocator import GC_FIRST_THRESHOLD, collect_less  # os and sys only: numpy is not loaded by it
 
 if "numpy" not in sys.modules:  # too late once numpy is loaded (a program that imported it first keeps its own)
     for _name in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ.setdefault(_name, "1")
 
-if gc.get_threshold()[0] < GC_FIRST_THRESHOLD:  # a program that set a higher one keeps it
-    gc.set_threshold(GC_FIRST_THRESHOLD, *gc.get_threshold()[1:])
+collect_less()
+
+__all__ = ["GC_FIRST_THRESHOLD"]

@@ -640,10 +640,13 @@ def close(client) -> None:
 def dask_setup(worker=None) -> None:
     """Run by each worker of ``--dask local`` as it starts (Dask's ``preload``): its process keeps freed memory for the
     next array as the command line's does (snrgain.allocator; without it a worker's patterns ran 1.7 times slower
-    than in-process), and imports the modules a design needs, so that the first chunk does not wait for them."""
-    from snrgain.allocator import tune
+    than in-process), runs the cyclic collector as seldom as the command line's process does (snrgain.cli: without it
+    the workers' designs ran slower than the command's own), and imports the modules a design needs, so that the
+    first chunk does not wait for them."""
+    from snrgain.allocator import collect_less, tune
 
     tune()
+    collect_less()
     import snrgain.decide.lot  # noqa: F401
     import snrgain.model.pipeline  # noqa: F401
     import snrgain.physics.modal  # noqa: F401
@@ -652,10 +655,11 @@ def dask_setup(worker=None) -> None:
 
 def _run_on_worker(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
     """:func:`run_designs` on a Dask worker (one of a scheduler given by its address too: :func:`dask_setup`'s
-    allocator setting made once)."""
-    from snrgain.allocator import tune
+    allocator and collector settings made once)."""
+    from snrgain.allocator import collect_less, tune
 
     tune()
+    collect_less()
     return run_designs(study, chunk)
 
 
