@@ -689,19 +689,10 @@ def _flag_losses(c: dict, choke) -> tuple[float, float]:
     them: the source only noise, the signal a plane wave from the case's target; a flag's shield and its own pickup
     add in power for the source (no wiring sign, snrgain.model.feedline.antenna_end) and over the sky."""
     f, g = c["freq_mhz"] * 1e6, Ground(c["conductivity_s_per_m"], c["permittivity"], "nec case")
-    flag = from_spec(
-        {
-            "family": "terminated-loop",
-            "width": f"{c['width_m']} m",
-            "loop_height": f"{c['loop_height_m']} m",
-            "height": f"{c['height_m']} m",
-            "termination": f"{c['termination_ohm']} ohm",
-            "diameter": f"{2 * c['wire_radius_m']} m",
-            "bearing": 270,  # the feed at NEC's x = 0, the loop along +x (east), favouring the west
-            "ground": {"conductivity": f"{c['conductivity_s_per_m']} S/m", "permittivity": c["permittivity"]},
-            "position": [0, 0],
-        }
-    )
+    from tests.nec.make_feedline_compact import flag_spec
+
+    # the feed at NEC's x = 0, the loop along +x (east), favouring the west
+    flag = from_spec({**flag_spec(c), "bearing": 270, "position": [0, 0]})
     assert flag.receiver_load_ohm(f) == pytest.approx(c["load_ohm"], abs=1e-3)  # NEC's load is the model's
     fl = _shield(choke, c=c)
     end, _, _ = antenna_end(flag, f, g)

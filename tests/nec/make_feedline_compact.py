@@ -208,22 +208,24 @@ def run_case(c: dict, work: Path) -> dict:
     return out
 
 
+def flag_spec(c: dict) -> dict:
+    """A flag case's antenna as snrgain's terminated loop takes it (the tests build the model from it too)."""
+    return {
+        "family": "terminated-loop",
+        "width": f"{c['width_m']} m",
+        "loop_height": f"{c['loop_height_m']} m",
+        "height": f"{c['height_m']} m",
+        "termination": f"{c['termination_ohm']} ohm",
+        "diameter": f"{2 * c['wire_radius_m']} m",
+        "ground": {"conductivity": f"{c['conductivity_s_per_m']} S/m", "permittivity": c["permittivity"]},
+    }
+
+
 def flag_load_ohm(c: dict) -> float:
     """The flag's receiver load as snrgain's terminated loop takes it (its transformer's, at the case's frequency)."""
     from snrgain.antennas import from_spec
 
-    flag = from_spec(
-        {
-            "family": "terminated-loop",
-            "width": f"{c['width_m']} m",
-            "loop_height": f"{c['loop_height_m']} m",
-            "height": f"{c['height_m']} m",
-            "termination": f"{c['termination_ohm']} ohm",
-            "diameter": f"{2 * c['wire_radius_m']} m",
-            "ground": {"conductivity": f"{c['conductivity_s_per_m']} S/m", "permittivity": c["permittivity"]},
-        }
-    )
-    return round(float(flag.receiver_load_ohm(c["freq_mhz"] * 1e6)), 3)
+    return round(float(from_spec(flag_spec(c)).receiver_load_ohm(c["freq_mhz"] * 1e6)), 3)
 
 
 def main():
