@@ -143,6 +143,35 @@ def earth_integrals(
     return total_p, 2 * total_p - 2 * total_q / k0**2
 
 
+def _fixed_rule(gamma: complex, freq_hz: float, height_m: float, n2: complex, offset_m: float, nodes: int):
+    """(lambda^2, weights, cos(lambda offset) or None) of :func:`earth_integrals`' rule with its pieces set at
+    ``gamma``: the secant's coarse steps keep one rule (the edges only say where to put points) and pay for the
+    arithmetic alone (:func:`_earth_on`)."""
+    k0 = 2 * np.pi * freq_hz / C_M_PER_S
+    kap0 = -(gamma**2 + k0**2)
+    top = 20.0 / height_m
+    edges = _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / height_m), top)
+    pieces = [(a, b) for a, b in zip(edges[:-1], edges[1:]) if b > a]
+    x, w = gauss_legendre(nodes)
+    lo = np.array([a for a, _ in pieces])[:, None]
+    half = 0.5 * (np.array([b for _, b in pieces])[:, None] - lo)
+    t = (half * (x + 1.0) + lo).ravel()
+    return t * t, (half * w).ravel(), (np.cos(t * offset_m) if offset_m else None)
+
+
+def _earth_on(rule, gamma: complex, k0: float, height_m: float, n2: complex) -> tuple[complex, complex]:
+    """(P, Q) of :func:`earth_integrals` on a rule of :func:`_fixed_rule`."""
+    t2, weights, cos_offset = rule
+    u0 = np.sqrt(t2 + -(gamma**2 + k0**2))
+    u1 = np.sqrt(t2 + -(gamma**2 + n2 * k0**2))
+    common = np.exp(-2 * height_m * u0)
+    if cos_offset is not None:
+        common = common * cos_offset
+    p = complex(weights @ (common / (u0 + u1)))
+    q = complex(weights @ (u0 * (u0 - u1) * common / (n2 * u0 + u1)))
+    return p, 2 * p - 2 * q / k0**2
+
+
 def _image_term(gamma, k0, radius_m, height_m) -> complex:
     """K0(kappa0 r) - K0(kappa0 r'), r the radius the field is taken at, r' its distance from the image."""
     kap = _sqrt_re(-(gamma**2 + k0**2))
@@ -239,9 +268,13 @@ def wire_over_earth(
     b = radius_m if insulation_radius_m is None else insulation_radius_m
     layer = 0.0 if insulation_radius_m is None else float(np.log(b / radius_m))
     rho = b if b > radius_m else 0.0
+    coarse = _fixed_rule(complex(gamma_start), freq_hz, height_m, n2, rho, COARSE_NODES)
 
     def step(gamma, nodes):
-        p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho, nodes=nodes)
+        if nodes == COARSE_NODES:  # the secant closing in: one rule for every step
+            p, q = _earth_on(coarse, gamma, k0, height_m, n2)
+        else:
+            p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho, nodes=nodes)
         lam = _image_term(gamma, k0, b, height_m)
         z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + layer + 2 * p)
         y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + layer / insulation_permittivity + q)
