@@ -246,3 +246,27 @@ def test_sweep_equals_rank_on_each_band():
             assert rows
             for row in rows:
                 assert row["snr_gain_db"] == pytest.approx(rank[row["antenna"], row["target"]], abs=0.01), (name, row)
+
+
+def test_a_tie_in_the_last_digit_is_ranked_as_the_plan_takes_it():
+    # Two antennas whose medians differ by rounding alone (a combination whose second part adds nothing, 2e-15 dB
+    # above its first part): the ranking keeps the scenario's order, as the plan serves a tie with the earlier
+    # antenna, so the two never name different best antennas (a case met on tests/data/sites/fen-reach-80.toml).
+    from types import SimpleNamespace
+
+    from snrgain.decide.plan import station_plan
+    from snrgain.model.results import rank_for_target
+
+    def cand(name, db):
+        return SimpleNamespace(name=name, snr_gain_median_db=[db], group=None)
+
+    ref = cand("ref", 0.0)
+    alone, combined = cand("wire", 12.404011360048347), cand("wire + loop", 12.404011360048349)
+    tr = rank_for_target([alone, combined, cand("loop", 5.1)], 0, "Japan", ref)
+    assert tr.best == "wire" and tr.ranking[:2] == ["wire", "wire + loop"] and tr.margin_db < 1e-12
+    plan = station_plan(
+        ["ref", "wire", "wire + loop", "loop"], [[0.0], [12.404011360048347], [12.404011360048349], [5.1]], [1.0]
+    )
+    assert plan.by_target[0][0].antenna == tr.best and not plan.not_best
+    # a real difference still ranks first
+    assert rank_for_target([alone, cand("better", 12.5)], 0, "Japan", ref).best == "better"

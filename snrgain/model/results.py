@@ -394,12 +394,26 @@ def jsonable(x):
     return x
 
 
+TIE_DB = 1e-9
+"""Median SNR gains closer than this are a tie in the ranking [dB] (the station plan's tolerance)."""
+
+
+def _rank_key(median_db) -> tuple[int, float]:
+    """Sort key of a median SNR gain, higher first, ties to TIE_DB kept in order; NaN last."""
+    x = float(median_db)
+    if np.isnan(x):
+        return (1, 0.0)
+    return (0, -x if np.isinf(x) else -float(round(x / TIE_DB)))
+
+
 def rank_for_target(
     candidates: list[AntennaResult], target_index: int, target_name: str, reference: AntennaResult
 ) -> TargetResult:
     """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up (the
-    next antenna one could build instead: another state of the same switched antenna is not one)."""
-    order = sorted(candidates, key=lambda a: -a.snr_gain_median_db[target_index])
+    next antenna one could build instead: another state of the same switched antenna is not one).  Medians equal
+    to TIE_DB keep the scenario's order, as the station plan takes them (snrgain.decide.plan: a tie goes to the
+    earlier antenna), so rounding in the last digit never makes two answers."""
+    order = sorted(candidates, key=lambda a: _rank_key(a.snr_gain_median_db[target_index]))
     others = [a for a in order[1:] if a.group is None or a.group != order[0].group]
     runner = others[0] if others else reference
     margin = float(order[0].snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
