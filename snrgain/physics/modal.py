@@ -89,13 +89,17 @@ def _pair(parts, edges, adaptive: bool, nodes: int = FINE_NODES) -> tuple[comple
         one = sum(_cquad(lambda t: parts(t)[0], a, b) for a, b in pieces)
         two = sum(_cquad(lambda t: parts(t)[1], a, b) for a, b in pieces)
         return complex(one), complex(two)
+    t, weights = _nodes(pieces, nodes)
+    f1, f2 = parts(t)
+    return complex(np.dot(weights, f1)), complex(np.dot(weights, f2))
+
+
+def _nodes(pieces, nodes: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre points and weights of ``nodes`` points on each piece (a, b), all pieces in one array."""
     x, w = gauss_legendre(nodes)
     lo = np.array([a for a, _ in pieces])[:, None]
     half = 0.5 * (np.array([b for _, b in pieces])[:, None] - lo)
-    t = (half * (x + 1.0) + lo).ravel()
-    weights = (half * w).ravel()
-    f1, f2 = parts(t)
-    return complex(np.dot(weights, f1)), complex(np.dot(weights, f2))
+    return (half * (x + 1.0) + lo).ravel(), (half * w).ravel()
 
 
 def _pieces(marks, top):
@@ -129,18 +133,26 @@ def earth_integrals(
     rho = offset_m
 
     def parts(lam):
-        u0, u1 = _sqrt_re(lam * lam + kap0), _sqrt_re(lam * lam + kap1)
-        common = np.exp(-2 * u0 * h)
-        if rho:
-            common = common * np.cos(lam * rho)
-        return common / (u0 + u1), u0 * (u0 - u1) * common / (n2 * u0 + u1)
+        return _earth_integrands(lam * lam, kap0, kap1, h, n2, np.cos(lam * rho) if rho else None)
 
-    # The integrands fall as exp(-2 lambda h): integrate to 20 / h.  Break points: the scale of kappa0 (where u0
-    # turns from kappa0 to lambda), the earth's |k1|, and 1 / 2h.
-    top = 20.0 / h
-    edges = _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / h), top)
-    total_p, total_q = _pair(parts, edges, adaptive, nodes)
+    total_p, total_q = _pair(parts, _earth_edges(kap0, k0, h, n2), adaptive, nodes)
     return total_p, 2 * total_p - 2 * total_q / k0**2
+
+
+def _earth_edges(kap0: complex, k0: float, height_m: float, n2: complex) -> list[float]:
+    """The integration pieces' edges of :func:`earth_integrals`.  The integrands fall as exp(-2 lambda h): integrate
+    to 20 / h.  Break points: the scale of kappa0 (where u0 turns from kappa0 to lambda), the earth's |k1|, 1 / 2h."""
+    return _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / height_m), 20.0 / height_m)
+
+
+def _earth_integrands(lam2, kap0: complex, kap1: complex, h: float, n2: complex, cos_offset):
+    """The two integrands of P and of Q's integral at lambda^2 = ``lam2`` (``cos_offset``: cos(lambda offset), or
+    None on the axis)."""
+    u0, u1 = _sqrt_re(lam2 + kap0), _sqrt_re(lam2 + kap1)
+    common = np.exp(-2 * u0 * h)
+    if cos_offset is not None:
+        common = common * cos_offset
+    return common / (u0 + u1), u0 * (u0 - u1) * common / (n2 * u0 + u1)
 
 
 def _fixed_rule(gamma: complex, freq_hz: float, height_m: float, n2: complex, offset_m: float, nodes: int):
@@ -149,26 +161,16 @@ def _fixed_rule(gamma: complex, freq_hz: float, height_m: float, n2: complex, of
     arithmetic alone (:func:`_earth_on`)."""
     k0 = 2 * np.pi * freq_hz / C_M_PER_S
     kap0 = -(gamma**2 + k0**2)
-    top = 20.0 / height_m
-    edges = _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / height_m), top)
-    pieces = [(a, b) for a, b in zip(edges[:-1], edges[1:]) if b > a]
-    x, w = gauss_legendre(nodes)
-    lo = np.array([a for a, _ in pieces])[:, None]
-    half = 0.5 * (np.array([b for _, b in pieces])[:, None] - lo)
-    t = (half * (x + 1.0) + lo).ravel()
-    return t * t, (half * w).ravel(), (np.cos(t * offset_m) if offset_m else None)
+    edges = _earth_edges(kap0, k0, height_m, n2)
+    t, weights = _nodes([(a, b) for a, b in zip(edges[:-1], edges[1:]) if b > a], nodes)
+    return t * t, weights, (np.cos(t * offset_m) if offset_m else None)
 
 
 def _earth_on(rule, gamma: complex, k0: float, height_m: float, n2: complex) -> tuple[complex, complex]:
     """(P, Q) of :func:`earth_integrals` on a rule of :func:`_fixed_rule`."""
     t2, weights, cos_offset = rule
-    u0 = np.sqrt(t2 + -(gamma**2 + k0**2))
-    u1 = np.sqrt(t2 + -(gamma**2 + n2 * k0**2))
-    common = np.exp(-2 * height_m * u0)
-    if cos_offset is not None:
-        common = common * cos_offset
-    p = complex(weights @ (common / (u0 + u1)))
-    q = complex(weights @ (u0 * (u0 - u1) * common / (n2 * u0 + u1)))
+    f1, f2 = _earth_integrands(t2, -(gamma**2 + k0**2), -(gamma**2 + n2 * k0**2), height_m, n2, cos_offset)
+    p, q = complex(np.dot(weights, f1)), complex(np.dot(weights, f2))
     return p, 2 * p - 2 * q / k0**2
 
 
