@@ -455,17 +455,21 @@ def line_currents(
     drive_h,
     v_end,
     far_current: bool = False,
+    v_far=None,
+    integrals=None,
 ):
     """Feed and far-end currents [A] of a line driven by a plane wave (module docstring), both polarizations.
 
     The distributed EMF per metre is ``drive * exp(+j k along x)`` (``drive_v`` and ``drive_h`` per direction);
     the vertical polarization also drives lumped EMFs ``v_end`` at both ends (per direction; the same vertical
     EMF, counted around one loop: up at the feed, down at the far end, where it arrives with the wave's phase
-    along the wire).  ``z_far`` None is an open far end (no far lead).  The line's integrals are formed once
-    and serve both polarizations.  Returns ((I_F v, I_F h), (I_R v, I_R h) or None).
+    along the wire), or ``v_end`` at the feed and ``v_far`` at the far end where they differ (a loop's sides).
+    ``z_far`` None is an open far end (no far lead).  The line's integrals (:func:`line_integrals`, or
+    ``integrals`` where the caller has formed them) serve both polarizations.  Returns ((I_F v, I_F h), (I_R v,
+    I_R h) or None).
     """
     g, z0, L = line.gamma, line.z0, length_m
-    jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, L)
+    jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, L) if integrals is None else integrals
     if z_far is None:
         denom = z0 * ch + z_feed * sh
         q = (0.5 / denom) * (j_plus - j_minus)  # i_sinh / denom
@@ -473,14 +477,20 @@ def line_currents(
     denom = z0 * (z_feed + z_far) * ch + (z0**2 + z_feed * z_far) * sh
     # (z0 i_cosh + z_far i_sinh) / denom, i_cosh and i_sinh the half sum and difference of j_plus and j_minus
     q = (0.5 * (z0 + z_far) / denom) * j_plus + (0.5 * (z0 - z_far) / denom) * j_minus
-    ends = v_end * ((z0 * ch + z_far * sh) / denom - (z0 * eg / denom) * phase_l)
+    if v_far is None:
+        ends = v_end * ((z0 * ch + z_far * sh) / denom - (z0 * eg / denom) * phase_l)
+    else:
+        ends = v_end * ((z0 * ch + z_far * sh) / denom) + v_far * (z0 * eg / denom)
     i_f = (drive_v * q + ends, drive_h * q)
     if not far_current:
         return i_f, None
     k_plus = (phase_l - eg) / (jkc + g)  # e^{-gL} int e^{jkcx} e^{gx} dx
     k_minus = eg * j_plus  # e^{-gL} int e^{jkcx} e^{-gx} dx
     qr = (0.5 * (z0 + z_feed) / denom) * k_plus + (0.5 * (z0 - z_feed) / denom) * k_minus
-    ends_r = v_end * ((z0 * eg) / denom - ((z0 * ch + z_feed * sh) / denom) * phase_l)
+    if v_far is None:
+        ends_r = v_end * ((z0 * eg) / denom - ((z0 * ch + z_feed * sh) / denom) * phase_l)
+    else:
+        ends_r = v_end * ((z0 * eg) / denom) + v_far * ((z0 * ch + z_feed * sh) / denom)
     return i_f, (drive_v * qr + ends_r, drive_h * qr)
 
 

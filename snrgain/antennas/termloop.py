@@ -74,6 +74,7 @@ from snrgain.antennas.longwire import (
     SkyTermination,
     best_resistor,
     field_along_wire,
+    line_currents,
     line_integrals,
     plane_wave,
     port_response,
@@ -390,22 +391,26 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         side = vertical_emf(w, self.z_bottom, self.z_top)[w.inv]  # each side, bottom to top of the rectangle
         load = self._load_ohm(freq_hz, termination_ohm)
         line = self.line(freq_hz)
-        g, z0, length, r = line.gamma, line.z0, self.width_m, termination_ohm
-        # The line's currents (longwire.line_currents with no lumped EMF at its ends), the line's integrals formed
-        # once for them and for the far side's phase below.
-        _, _, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, g, length)
-        denom = z0 * (load + r) * ch + (z0**2 + load * r) * sh
-        q = (0.5 * (z0 + r) / denom) * j_plus + (0.5 * (z0 - r) / denom) * j_minus
+        integrals = line_integrals(w, line.gamma, self.width_m)  # formed once: the currents and the far side's phase
         # The sides' EMFs, up at the feed side and (with the wave's phase along the width, e^{jkcL}) at the far
         # side: their difference is the loop's magnetic response, kept whole; their common part, the electric
         # response, is scaled by the charge moment's height over the spacing.
         e_feed = side
-        e_far = side * phase_l
+        e_far = side * integrals[5]
         share = self.electric_share(freq_hz)
         mag, ele = 0.5 * (e_feed - e_far), 0.5 * share * (e_feed + e_far)
-        ends = (mag + ele) * ((z0 * ch + r * sh) / denom) + (mag - ele) * (z0 * eg / denom)
-        i_v = -w.cos_dphi * (top_v - bottom_v)[w.inv] * q + ends
-        i_h = -w.sin_dphi * (top_h - bottom_h)[w.inv] * q
+        (i_v, i_h), _ = line_currents(
+            w,
+            line=line,
+            length_m=self.width_m,
+            z_feed=load,
+            z_far=termination_ohm,
+            drive_v=-w.cos_dphi * (top_v - bottom_v)[w.inv],
+            drive_h=-w.sin_dphi * (top_h - bottom_h)[w.inv],
+            v_end=mag + ele,
+            v_far=mag - ele,
+            integrals=integrals,
+        )
         return tuple(port_response(freq_hz, i, load_ohm=load, elevation_rad=w.el) for i in (i_v, i_h))
 
     def transmit_segments(self, freq_hz: float):
