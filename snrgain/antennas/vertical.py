@@ -191,11 +191,7 @@ class Vertical(Antenna):
 
     def _form_factor(self, k, sin_psi, r_v):
         """F = integral I(z) [e^{jkz s} + R_v e^{-jkz s}] dz for arrays of s, R_v."""
-        current = np.sin(k * (self.height_m + self.top_m - self._z))  # (nz,)
-        phase = np.exp(1j * k * np.multiply.outer(sin_psi, self._z))  # (..., nz)
-        direct = phase @ (current * self._wz)
-        reflected = np.conj(phase) @ (current * self._wz)
-        return direct + r_v * reflected
+        return _form_factor(k, self._z, self._wz, self.height_m + self.top_m, sin_psi, r_v)
 
     def _power_terms(self, freq_hz):
         """(P_rad over perfect ground per unit current [W], |I_base|^2): the same for every vertical of this height
@@ -308,9 +304,17 @@ def _power_terms(height_m: float, top_m: float, freq_hz: float) -> tuple[float, 
     x, w = gauss_legendre(_NPSI)
     psi = 0.25 * np.pi * (x + 1.0)
     wpsi = 0.25 * np.pi * w
-    current = np.sin(k * (height_m + top_m - z)) * wz
-    phase = np.exp(1j * k * np.multiply.outer(np.sin(psi), z))
-    f_pg = phase @ current + np.conj(phase) @ current
+    f_pg = _form_factor(k, z, wz, height_m + top_m, np.sin(psi), 1.0)  # over a perfect ground
     u = ETA0_OHM * k**2 / (32 * np.pi**2) * np.cos(psi) ** 2 * np.abs(f_pg) ** 2
     p_rad = 2 * np.pi * float(np.sum(u * np.cos(psi) * wpsi))
     return p_rad, float(np.sin(k * (height_m + top_m)) ** 2)
+
+
+def _form_factor(k: float, z, wz, length_m: float, sin_psi, r_v):
+    """F = integral I(z) [e^{jkz s} + R_v e^{-jkz s}] dz for arrays of s, R_v, the current sin(k (length - z)) on
+    the points ``z`` with weights ``wz`` (``length_m``: height plus top loading)."""
+    current = np.sin(k * (length_m - z))  # (nz,)
+    phase = np.exp(1j * k * np.multiply.outer(sin_psi, z))  # (..., nz)
+    direct = phase @ (current * wz)
+    reflected = np.conj(phase) @ (current * wz)
+    return direct + r_v * reflected
