@@ -58,6 +58,11 @@ class Service:
     """The switched antenna ``antenna`` is a state of (switched to that state for the target), else None."""
 
 
+TIE_DB = 1e-9
+"""Median SNR gains closer than this are a tie [dB]: the plan serves a target with the earlier antenna, and the
+ranking (snrgain.model.results.rank_for_target) keeps them in the scenario's order."""
+
+
 @dataclass(frozen=True)
 class Plan:
     """The antennas to build (in order), the dB each adds, the plan's worth, and who serves which target."""
@@ -178,7 +183,7 @@ def station_plan(
             Service(names[served], list(months), [float(h) for h in hours], float(gains[served, t]), groups[served])
         ]
         top = max(candidates, key=lambda a: gains[a, t], default=None)
-        if top is not None and gains[top, t] > gains[served, t] + 1e-9:
+        if top is not None and gains[top, t] > gains[served, t] + TIE_DB:
             u = unit_of[top]
             not_best[t] = {
                 "best": names[top],

@@ -15,6 +15,7 @@ from typing import Any
 
 import numpy as np
 
+from snrgain.decide.plan import TIE_DB
 from snrgain.model.notices import Notice  # re-exported: the documented path snrgain.model.results.Notice
 from snrgain.sky.noise import SkySeries
 
@@ -392,10 +393,6 @@ def jsonable(x):
         v = float(x)
         return v if np.isfinite(v) else None
     return x
-
-
-TIE_DB = 1e-9
-"""Median SNR gains closer than this are a tie in the ranking [dB] (the station plan's tolerance)."""
 
 
 def _rank_key(median_db) -> tuple[int, float]:
