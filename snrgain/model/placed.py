@@ -57,13 +57,13 @@ search reads the tables there too); the EMFs along a wire at one place are kept 
 from __future__ import annotations
 
 from contextlib import contextmanager
-from functools import lru_cache
 
 import numpy as np
 
 from noisemodels import nearground
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.physics.quadrature import even_samples
 from snrgain.physics.reciprocity import LEAD_POINTS, wire_currents_in_field  # noqa: F401 (the module's API)
 from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
@@ -160,15 +160,7 @@ def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarra
     snrgain.physics.quadrature.samples_rule).  A read-only array, shared by the calls that ask for the same."""
     lam = C_M_PER_S / freq_hz
     step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    n = int(np.clip(np.ceil(length_m / step), WIRE_LEAST_SAMPLES, 40_000))
-    return _even_steps(float(length_m), n + n % 2)
-
-
-@lru_cache(maxsize=256)
-def _even_steps(length_m: float, steps: int) -> np.ndarray:
-    x = np.linspace(0.0, length_m, steps + 1)
-    x.flags.writeable = False
-    return x
+    return even_samples(length_m, int(np.clip(np.ceil(length_m / step), WIRE_LEAST_SAMPLES, 40_000)))
 
 
 def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:

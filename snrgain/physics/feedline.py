@@ -95,7 +95,7 @@ import numpy as np
 
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
-from snrgain.physics.quadrature import gauss_legendre, samples_rule
+from snrgain.physics.quadrature import even_samples, gauss_legendre, samples_rule
 from snrgain.physics.reciprocity import LEAD_POINTS
 
 CABLES: dict[str, tuple[float, float]] = {
@@ -367,11 +367,10 @@ ROUTE_LEAST_SAMPLES = 200
 
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
     """Distances along the run [m]: finer than a 40th of a wavelength and a quarter of the closest approach of a
-    source, at least 200 points, at most 20,000."""
+    source, at least 200 steps, at most 20,000, an even number of them."""
     lam = C_M_PER_S / freq_hz
     step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    n = int(np.clip(np.ceil(fl.length_m / step), ROUTE_LEAST_SAMPLES, 20_000))
-    return np.linspace(0.0, fl.length_m, n + n % 2 + 1)  # an even number of steps (Simpson's rule)
+    return even_samples(fl.length_m, int(np.clip(np.ceil(fl.length_m / step), ROUTE_LEAST_SAMPLES, 20_000)))
 
 
 def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:

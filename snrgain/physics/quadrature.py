@@ -45,3 +45,16 @@ def _simpson(n: int) -> np.ndarray:
     w[0] = w[-1] = 1.0 / 3.0
     w.flags.writeable = False
     return w
+
+
+def even_samples(length_m: float, steps: int) -> np.ndarray:
+    """``steps`` + 1 evenly spaced points on [0, length_m], ``steps`` rounded up to even (Simpson's rule,
+    :func:`samples_rule`): a read-only array, shared by the calls that ask for the same."""
+    return _even_samples(float(length_m), int(steps) + int(steps) % 2)
+
+
+@lru_cache(maxsize=256)
+def _even_samples(length_m: float, steps: int) -> np.ndarray:
+    x = np.linspace(0.0, length_m, steps + 1)
+    x.flags.writeable = False
+    return x
