@@ -680,21 +680,30 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         return {pol: (i_f[n], None if i_r is None else i_r[n]) for n, pol in enumerate(("v", "h"))}, w
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
-        load = self.receiver_load_ohm(freq_hz)
-        z_far = self.far_load_ohm(freq_hz) if self.terminated else None
-        if z_far is None or type(self).currents is not LongWire.currents:
+        at = self._forms_at(freq_hz, azimuth_rad, elevation_rad)
+        if at is None:
+            load = self.receiver_load_ohm(freq_hz)
             currents, w = self.currents(freq_hz, azimuth_rad, elevation_rad)
             return tuple(
                 port_response(freq_hz, currents[pol][0], load_ohm=load, elevation_rad=w.el) for pol in ("v", "h")
             )
-        (av, bv), (ah, bh), el = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
-        d0, d1 = line_denominator(self.line(freq_hz), self.length_m, load + self.feed_rod_ohm)
-        den = d0 + z_far * d1
-        shape = np.broadcast_shapes(np.shape(azimuth_rad), np.shape(elevation_rad))
+        forms, z_far, den, load, el, shape = at
         return tuple(
             port_response(freq_hz, (a + z_far * b) / den, load_ohm=load, elevation_rad=el).reshape(shape)
-            for a, b in ((av, bv), (ah, bh))
+            for a, b in forms
         )
+
+    def _forms_at(self, freq_hz, azimuth_rad, elevation_rad):
+        """(((A_v, B_v), (A_h, B_h)), far load Z, feed denominator D0 + Z D1, receiver load, elevations, shape) of a
+        terminated wire whose currents are the line model's (:meth:`_response_forms`); None for any other."""
+        if not self.terminated or type(self).currents is not LongWire.currents:
+            return None
+        load = self.receiver_load_ohm(freq_hz)
+        z_far = self.far_load_ohm(freq_hz)
+        (av, bv), (ah, bh), el = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
+        d0, d1 = line_denominator(self.line(freq_hz), self.length_m, load + self.feed_rod_ohm)
+        shape = np.broadcast_shapes(np.shape(azimuth_rad), np.shape(elevation_rad))
+        return ((av, bv), (ah, bh)), z_far, d0 + z_far * d1, load, el, shape
 
     def _response_forms(self, freq_hz, azimuth_rad, elevation_rad):
         """((A_v, B_v), (A_h, B_h), elevations) of :func:`feed_current_forms` on these directions: the feed currents
@@ -738,22 +747,16 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         """(|I_v|^2, |I_h|^2) scaled to realized gain, from the response forms (a terminated wire whose currents
         are the line model's), or None: the powers straight from A + Z B, the feed denominator and the port's
         scale one number, without forming the complex responses."""
-        kind = type(self)
-        if (
-            not self.terminated
-            or kind.currents is not LongWire.currents
-            or kind.complex_response is not LongWire.complex_response
-        ):
+        if type(self).complex_response is not LongWire.complex_response:
             return None
-        load = self.receiver_load_ohm(freq_hz)
-        z_far = self.far_load_ohm(freq_hz)
-        (av, bv), (ah, bh), el = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
-        d0, d1 = line_denominator(self.line(freq_hz), self.length_m, load + self.feed_rod_ohm)
+        at = self._forms_at(freq_hz, azimuth_rad, elevation_rad)
+        if at is None:
+            return None
+        forms, z_far, den, load, el, shape = at
         lam = C_M_PER_S / freq_hz
-        scale2 = 4 * np.pi / lam**2 * load * ETA0_OHM / _power(d0 + z_far * d1)
-        shape = np.broadcast_shapes(np.shape(azimuth_rad), np.shape(elevation_rad))
+        scale2 = 4 * np.pi / lam**2 * load * ETA0_OHM / _power(den)
         up = above_horizon(el)
-        return tuple(np.where(up, scale2 * _power(a + z_far * b), 0.0).reshape(shape) for a, b in ((av, bv), (ah, bh)))
+        return tuple(np.where(up, scale2 * _power(a + z_far * b), 0.0).reshape(shape) for a, b in forms)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""
