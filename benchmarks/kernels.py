@@ -292,12 +292,10 @@ CASES = {
 
 
 def _best(fn, n):
-    best = float("inf")
-    for _ in range(n):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return best
+    """Best wall time of ``n`` runs of ``fn`` [s] (benchmarks/bench.py's best_of)."""
+    from benchmarks.bench import best_of
+
+    return best_of(fn, n)[0]
 
 
 def _best_fresh(build, az, el, n):
