@@ -123,10 +123,7 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j1: float, r_
         f"LD 0 2 1 1 {c['turns_ratio'] ** 2 * c['coax_ohm']:.3f} 0 0",
         f"LD 0 4 2 2 {c['termination_ohm'] + c['far_rod_ohm'] - r_j2:.3f} 0 0",
     ]
-    if shield:
-        lines.append(f"LD 0 6 1 1 {c['station_ground_ohm'] - r_j1:.3f} 0 0")
-    if shield and choke:
-        lines.append(f"LD 0 {8 if y0 else 5} 1 1 {c['choke_ohm']:.3f} 0 0")
+    lines += shield_loads(c, r_j1, 8 if y0 else 5, shield=shield, choke=choke)
     return "\n".join(lines + drive(c, excitation)) + "\n"
 
 
@@ -140,6 +137,17 @@ def source_and_ground(c: dict, radius_m: float) -> list[str]:
         "GE 1",
         f"GN 2 0 0 0 {c['permittivity']:g} {c['conductivity_s_per_m']:g}",
     ]
+
+
+def shield_loads(c: dict, r_station: float, choke_tag: int, *, shield: bool, choke: bool) -> list[str]:
+    """The shield's loads every feed-line deck shares: the station ground on its lead (tag 6, less NEC's junction
+    resistance ``r_station``) and the choke on ``choke_tag``; none without a shield."""
+    out = []
+    if shield:
+        out.append(f"LD 0 6 1 1 {c['station_ground_ohm'] - r_station:.3f} 0 0")
+    if shield and choke:
+        out.append(f"LD 0 {choke_tag} 1 1 {c['choke_ohm']:.3f} 0 0")
+    return out
 
 
 def drive(c: dict, excitation: str) -> list[str]:

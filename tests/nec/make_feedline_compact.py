@@ -43,7 +43,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
 from make_deembedded import junction_ohm, stub_deck  # noqa: E402
-from make_feedline import drive, segment_currents, source_and_ground  # noqa: E402
+from make_feedline import drive, segment_currents, shield_loads, source_and_ground  # noqa: E402
 from necdeck import run_nec2c  # noqa: E402
 
 CASE = {
@@ -115,10 +115,7 @@ def deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j: float) -> 
         f"LD 0 1 1 1 {c['ground_ohm'] - r_j['foot']:.3f} 0 0",
         f"LD 0 2 1 1 {c['load_ohm']:.3f} 0 0",
     ]
-    if shield:
-        lines.append(f"LD 0 6 1 1 {c['station_ground_ohm'] - r_j['station']:.3f} 0 0")
-    if shield and choke:
-        lines.append(f"LD 0 5 1 1 {c['choke_ohm']:.3f} 0 0")
+    lines += shield_loads(c, r_j["station"], 5, shield=shield, choke=choke)
     return "\n".join(lines + drive(c, excitation)) + "\n"
 
 
@@ -162,10 +159,7 @@ def flag_deck(c: dict, *, shield: bool, choke: bool, excitation: str, r_j: float
         f"LD 0 {feed} 1 1 {c['load_ohm']:.3f} 0 0",
         f"LD 0 {term} 1 1 {c['termination_ohm']:.3f} 0 0",
     ]
-    if shield:
-        lines.append(f"LD 0 6 1 1 {c['station_ground_ohm'] - r_j['station']:.3f} 0 0")
-    if shield and choke:
-        lines.append(f"LD 0 4 1 1 {c['choke_ohm']:.3f} 0 0")
+    lines += shield_loads(c, r_j["station"], 4, shield=shield, choke=choke)
     return "\n".join(lines + drive(c, excitation)) + "\n"
 
 
