@@ -654,16 +654,21 @@ def _whip_loss(c: dict, choke) -> float:
             "position": [0, 0],
         }
     )
+    a, b, _, _ = _own_and_shield(whip, c, choke, f, g)
+    return float(10 * np.log10(abs(a + b) ** 2 / abs(a) ** 2))
+
+
+def _own_and_shield(antenna, c: dict, choke, f: float, g) -> tuple:
+    """(the antenna's own amplitude from the NEC case's source, its shield's amplitude, the shield, its coupling)."""
     fl = _shield(choke, c=c)
-    end, _, _ = antenna_end(whip, f, g)
+    end, _, _ = antenna_end(antenna, f, g)
     cp = phys.coupling_at(fl, f, g, end)
     src = _source(*c["source_m"], height=c["source_height_m"])
     i = phys.field_current(
         fl, cp, f, lambda p, h: placed.field_vector(src, p, h, f, g, kind="vertical"), closest_m=10.0
     )
-    b = port_amplitude(f, i, cp.load_ohm)
-    a = placed.received_amplitudes(whip, src, f, (0.0, 0.0), g, kind="vertical")[0]
-    return float(10 * np.log10(abs(a + b) ** 2 / abs(a) ** 2))
+    a = placed.received_amplitudes(antenna, src, f, (0.0, 0.0), g, kind="vertical")[0]
+    return a, port_amplitude(f, i, cp.load_ohm), fl, cp
 
 
 @pytest.mark.parametrize("name", ["whip-s100-g40", "whip-s60-g100", "whip-s150-g100-end"])
@@ -694,15 +699,7 @@ def _flag_losses(c: dict, choke) -> tuple[float, float]:
     # the feed at NEC's x = 0, the loop along +x (east), favouring the west
     flag = from_spec({**flag_spec(c), "bearing": 270, "position": [0, 0]})
     assert flag.receiver_load_ohm(f) == pytest.approx(c["load_ohm"], abs=1e-3)  # NEC's load is the model's
-    fl = _shield(choke, c=c)
-    end, _, _ = antenna_end(flag, f, g)
-    cp = phys.coupling_at(fl, f, g, end)
-    src = _source(*c["source_m"], height=c["source_height_m"])
-    i = phys.field_current(
-        fl, cp, f, lambda p, h: placed.field_vector(src, p, h, f, g, kind="vertical"), closest_m=10.0
-    )
-    b = port_amplitude(f, i, cp.load_ohm)
-    a = placed.received_amplitudes(flag, src, f, (0.0, 0.0), g, kind="vertical")[0]
+    a, b, fl, cp = _own_and_shield(flag, c, choke, f, g)
     source_db = float(10 * np.log10((abs(a) ** 2 + abs(b) ** 2) / abs(a) ** 2))
     az, el = np.radians([c["target_bearing_deg"]]), np.radians([c["target_elevation_deg"]])
     own = flag.gain_linear(f, az, el)[0]
