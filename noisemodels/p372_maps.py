@@ -71,6 +71,9 @@ class AtmosphericCoefficients:
 
 
 _HEADER = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_]*)\s*\(\s*(\d+(?:\s*,\s*\d+)*)\s*\)\s*$")
+_HEADER_IN_TEXT = re.compile(  # the same header found in the whole text, within one line
+    r"^[ \t]*([A-Za-z][A-Za-z0-9_]*)[ \t]*\([ \t]*(\d+(?:[ \t]*,[ \t]*\d+)*)[ \t]*\)[ \t]*$", re.M
+)
 
 
 def resolve_data_dir(data_dir: str | Path | None = None) -> Path:
@@ -95,7 +98,9 @@ def month_file(data_dir: Path, month: int) -> Path:
 def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
     """Read the four noise sections of one month's coefficient file.
 
-    Raises P372DataError naming the file, and the section or line at fault.
+    Raises P372DataError naming the file, and the section or line at fault.  Each noise section's numbers are read
+    in one numpy conversion; a file that does not read cleanly that way is read again line by line
+    (:func:`_read_by_line`), which names the line at fault.
     """
     path = Path(path)
     try:
@@ -104,10 +109,39 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
         raise P372DataError(
             f"{path}: cannot read P.372 coefficient file ({exc.strerror or exc}). {HOW_TO_GET}"
         ) from None
+    text = text.replace("\x1a", "")
+    heads = list(_HEADER_IN_TEXT.finditer(text))
+    arrays = {}
+    for i, m in enumerate(heads):
+        name = m.group(1)
+        if name not in SECTIONS:
+            continue
+        dims = tuple(int(x) for x in m.group(2).split(","))
+        end = heads[i + 1].start() if i + 1 < len(heads) else len(text)
+        try:
+            numbers = np.array(text[m.end() : end].split(), dtype=float)
+        except ValueError:
+            break  # a word that is not a number: the line-by-line reading names it
+        if (
+            name in arrays
+            or dims != SECTIONS[name]
+            or numbers.size != int(np.prod(dims))
+            or not np.all(np.abs(numbers) < MAX_COEFFICIENT)
+        ):
+            break
+        arrays[name] = numbers.reshape(dims[::-1])
+    if arrays.keys() != SECTIONS.keys():
+        return _read_by_line(path, text, month)
+    return AtmosphericCoefficients(month, path, arrays["fakp"], arrays["fakabp"], arrays["dud"], arrays["fam"])
+
+
+def _read_by_line(path: Path, text: str, month: int) -> AtmosphericCoefficients:
+    """The file read line by line, for its error message: raises P372DataError naming the section or line at
+    fault (or returns the coefficients, should the file read cleanly after all)."""
     values: dict[str, list[float]] = {}
     dims: dict[str, tuple[int, ...]] = {}
     current = None
-    for line_no, line in enumerate(text.replace("\x1a", "").splitlines(), start=1):
+    for line_no, line in enumerate(text.splitlines(), start=1):
         m = _HEADER.match(line)
         if m:
             name = m.group(1)
