@@ -225,36 +225,36 @@ def test_loop_shapes_near_source_ratio_against_nec(case):
     # 0.82 dB at 10-15 m; behind the loops at 60-100 m, in the ground wave's rear null, up to 8.2 dB).  Measured,
     # model over NEC (coarse) [dB], per place and distance from the loop's middle, over loam; over 1 mS/m: sources
     # vertical 2, 6, 10 m up | horizontal 2, 4, 6, 10 m up:
-    # pennant front   10 m: +0.19 +0.13 +0.14 | -0.15 +0.20 +0.13 +0.12;  +0.17 +0.14 +0.15 | -0.04 +0.21 +0.12 +0.12
-    # pennant front 12.5 m: +0.16 +0.13 +0.10 | +0.17 +0.15 +0.13 +0.11;  +0.15 +0.12 +0.10 | +0.12 +0.15 +0.12 +0.11
-    # pennant front   15 m: +0.14 +0.12 +0.08 | +0.10 +0.12 +0.12 +0.11;  +0.13 +0.12 +0.08 | +0.08 +0.12 +0.11 +0.10
-    # pennant side    10 m: -0.07 -0.07 -0.07 | +0.02 +0.01 +0.00 +0.01;  -0.07 -0.07 -0.08 | +0.03 +0.02 +0.00 +0.01
-    # pennant side  12.5 m: -0.07 -0.08 -0.13 | -0.03 -0.02 -0.01 -0.00;  -0.06 -0.07 -0.11 | -0.01 -0.01 -0.01 -0.01
-    # pennant side    15 m: -0.07 -0.08 -0.12 | -0.06 -0.04 -0.03 -0.02;  -0.06 -0.07 -0.09 | -0.03 -0.03 -0.03 -0.02
-    # pennant back    10 m: -0.01 +0.32 +0.32 | +0.08 -0.27 -0.25 +0.06;  -0.02 +0.27 +0.28 | +0.13 -0.25 -0.24 +0.06
-    # pennant back  12.5 m: +0.10 +0.36 +0.91 | +0.03 -0.08 -0.07 +0.09;  +0.07 +0.30 +1.01 | +0.08 -0.06 -0.06 +0.09
-    # pennant back    15 m: +0.17 +0.40 +1.01 | +0.11 +0.03 +0.03 +0.12;  +0.13 +0.33 +1.12 | +0.16 +0.06 +0.05 +0.13
-    # delta   front   10 m: -0.72 +0.65 +0.32 | -1.15 -0.87 -0.52 -0.14;  -0.69 +0.65 +0.52 | -0.49 -0.73 -0.45 -0.12
+    # pennant front   10 m: +0.18 +0.13 +0.15 | -0.16 +0.20 +0.12 +0.12;  +0.17 +0.13 +0.15 | -0.05 +0.21 +0.12 +0.11
+    # pennant front 12.5 m: +0.15 +0.12 +0.11 | +0.18 +0.15 +0.13 +0.11;  +0.15 +0.12 +0.11 | +0.12 +0.15 +0.12 +0.10
+    # pennant front   15 m: +0.13 +0.12 +0.09 | +0.10 +0.12 +0.11 +0.10;  +0.13 +0.11 +0.08 | +0.08 +0.11 +0.11 +0.10
+    # pennant side    10 m: -0.07 -0.07 -0.08 | +0.02 +0.01 +0.01 +0.02;  -0.06 -0.07 -0.08 | +0.03 +0.02 +0.01 +0.01
+    # pennant side  12.5 m: -0.07 -0.08 -0.14 | -0.02 -0.02 -0.01 -0.00;  -0.06 -0.07 -0.11 | -0.00 -0.01 -0.01 -0.00
+    # pennant side    15 m: -0.07 -0.08 -0.12 | -0.05 -0.03 -0.03 -0.01;  -0.06 -0.07 -0.09 | -0.02 -0.02 -0.02 -0.02
+    # pennant back    10 m: +0.13 +0.46 +0.44 | +0.21 -0.14 -0.12 +0.20;  +0.13 +0.42 +0.39 | +0.25 -0.11 -0.11 +0.20
+    # pennant back  12.5 m: +0.24 +0.50 +1.03 | +0.16 +0.05 +0.06 +0.22;  +0.22 +0.45 +1.14 | +0.20 +0.08 +0.08 +0.23
+    # pennant back    15 m: +0.32 +0.54 +1.14 | +0.24 +0.16 +0.17 +0.26;  +0.28 +0.48 +1.25 | +0.29 +0.19 +0.18 +0.26
+    # delta   front   10 m: -0.73 +0.65 +0.32 | -1.15 -0.87 -0.52 -0.14;  -0.69 +0.65 +0.51 | -0.49 -0.73 -0.45 -0.12
     # delta   front 12.5 m: -0.53 +0.09 +0.46 | -0.59 -0.60 -0.46 -0.21;  -0.50 +0.12 +0.58 | +0.05 -0.41 -0.37 -0.18
-    # delta   front   15 m: -0.38 -0.07 +0.28 | -0.33 -0.44 -0.38 -0.22;  -0.37 -0.04 +0.33 | +0.28 -0.21 -0.27 -0.19
+    # delta   front   15 m: -0.38 -0.07 +0.28 | -0.33 -0.44 -0.38 -0.22;  -0.37 -0.04 +0.34 | +0.28 -0.21 -0.27 -0.19
     # delta   side    10 m: +0.03 +0.15 -0.01 | +0.10 +0.08 +0.09 +0.13;  +0.06 +0.16 +0.02 | +0.26 +0.17 +0.15 +0.17
-    # delta   side  12.5 m: +0.03 +0.09 -0.03 | +0.10 +0.07 +0.07 +0.10;  +0.06 +0.11 +0.01 | +0.25 +0.16 +0.14 +0.15
+    # delta   side  12.5 m: +0.03 +0.09 -0.03 | +0.10 +0.07 +0.07 +0.10;  +0.06 +0.11 +0.01 | +0.25 +0.17 +0.14 +0.15
     # delta   side    15 m: +0.03 +0.06 +0.02 | +0.09 +0.07 +0.07 +0.08;  +0.06 +0.09 +0.05 | +0.24 +0.17 +0.14 +0.14
-    # delta   back    10 m: -0.62 +1.19 +0.10 | -1.03 -0.68 -0.33 +0.04;  -0.52 +1.52 -0.07 | -1.47 -0.81 -0.37 +0.05
-    # delta   back  12.5 m: -0.44 +0.34 +0.51 | -0.49 -0.43 -0.28 -0.03;  -0.37 +0.54 +0.33 | -0.78 -0.55 -0.33 -0.03
-    # delta   back    15 m: -0.32 +0.08 +0.69 | -0.26 -0.28 -0.21 -0.05;  -0.27 +0.23 +0.72 | -0.47 -0.38 -0.26 -0.06
-    # diamond front   10 m: -0.03 -0.08 -0.01 | -0.02 -0.20 -0.32 -0.16;  -0.03 -0.09 -0.00 | -0.18 -0.20 -0.33 -0.17
-    # diamond front 12.5 m: -0.03 -0.01 +0.08 | -0.14 -0.20 -0.22 -0.14;  -0.02 -0.02 +0.07 | -0.11 -0.21 -0.23 -0.16
-    # diamond front   15 m: -0.01 +0.01 +0.07 | -0.18 -0.18 -0.17 -0.13;  -0.01 +0.01 +0.05 | -0.13 -0.19 -0.19 -0.15
+    # delta   back    10 m: -0.61 +1.20 +0.11 | -1.02 -0.67 -0.32 +0.05;  -0.51 +1.53 -0.06 | -1.46 -0.80 -0.35 +0.06
+    # delta   back  12.5 m: -0.43 +0.35 +0.52 | -0.48 -0.42 -0.27 -0.02;  -0.36 +0.55 +0.34 | -0.77 -0.54 -0.32 -0.02
+    # delta   back    15 m: -0.31 +0.09 +0.70 | -0.25 -0.27 -0.20 -0.04;  -0.26 +0.24 +0.73 | -0.45 -0.37 -0.25 -0.05
+    # diamond front   10 m: -0.03 -0.08 -0.01 | -0.02 -0.20 -0.32 -0.16;  -0.03 -0.09 -0.00 | -0.19 -0.20 -0.33 -0.17
+    # diamond front 12.5 m: -0.03 -0.01 +0.08 | -0.14 -0.20 -0.22 -0.14;  -0.02 -0.02 +0.07 | -0.12 -0.21 -0.23 -0.16
+    # diamond front   15 m: -0.01 +0.01 +0.07 | -0.18 -0.18 -0.17 -0.13;  -0.01 +0.01 +0.05 | -0.14 -0.19 -0.19 -0.15
     # diamond side    10 m: +0.04 +0.04 +0.02 | +0.05 +0.04 +0.04 +0.05;  +0.04 +0.04 +0.02 | +0.05 +0.04 +0.03 +0.04
-    # diamond side  12.5 m: +0.03 +0.03 +0.01 | +0.02 +0.02 +0.02 +0.03;  +0.03 +0.03 +0.01 | +0.03 +0.01 +0.01 +0.02
+    # diamond side  12.5 m: +0.03 +0.03 +0.01 | +0.02 +0.02 +0.02 +0.03;  +0.03 +0.03 +0.01 | +0.03 +0.02 +0.01 +0.02
     # diamond side    15 m: +0.02 +0.02 +0.01 | -0.00 +0.00 +0.01 +0.02;  +0.02 +0.02 +0.01 | +0.02 +0.00 +0.00 +0.00
-    # diamond back    10 m: +0.02 +0.00 +0.15 | +1.16 -0.02 -0.14 +0.01;  +0.03 -0.03 +0.14 | +0.19 -0.01 -0.15 -0.01
-    # diamond back  12.5 m: +0.05 +0.08 +0.46 | +0.10 -0.01 -0.04 +0.02;  +0.03 +0.05 +0.54 | +0.13 -0.00 -0.05 +0.00
-    # diamond back    15 m: +0.07 +0.13 +0.48 | +0.06 +0.01 +0.00 +0.03;  +0.05 +0.09 +0.53 | +0.09 +0.02 -0.00 +0.02
-    # At 30-100 m (vertical 2 m up, horizontal 4 m up) within 0.6 dB, but a vertical source behind the loop at
-    # 60-100 m, in the rear null, reads -4.25 to +0.70 dB where NEC's finer segmentation gives -0.44 to +5.55 (the
-    # diamond over loam 100 m behind: -4.25, finer +3.92; within the spread).  Before, through the equivalent
+    # diamond back    10 m: +0.03 +0.01 +0.16 | +1.17 -0.01 -0.13 +0.02;  +0.04 -0.02 +0.15 | +0.20 +0.01 -0.14 +0.00
+    # diamond back  12.5 m: +0.06 +0.09 +0.47 | +0.11 +0.00 -0.03 +0.03;  +0.04 +0.06 +0.55 | +0.14 +0.01 -0.04 +0.01
+    # diamond back    15 m: +0.08 +0.14 +0.49 | +0.07 +0.02 +0.01 +0.04;  +0.06 +0.10 +0.55 | +0.10 +0.03 +0.01 +0.03
+    # At 30-100 m (vertical 2 m up, horizontal 4 m up) within 0.67 dB, but a vertical source behind the loop at
+    # 60-100 m, in the rear null, reads -4.26 to +0.71 dB where NEC's finer segmentation gives -0.42 to +5.54 (the
+    # diamond over loam 100 m behind: -4.26, finer +3.91; within the spread).  Before, through the equivalent
     # rectangle's currents, the same 10-15 m cases missed by up to 10.45 dB (pennant, horizontal 2 m up behind it;
     # front and rear 5-6 dB), 3.4 dB (delta), 8.9 dB (diamond, horizontal 2 m up behind it); along the halves
     # without the fitted electric part front and side were within 0.75 dB but every rear case read 4.6-8.3 dB low
@@ -462,8 +462,8 @@ def test_far_source_gives_the_patterns_ratio(name):
     # elevation: within 0.3 dB (the brief's invariant) where the pattern is within 20 dB of its best at that
     # elevation, within 1 dB in nulls 20-40 dB down (there the ground wave's slowness along an array, 1 against the
     # 5-deg plane wave's cos 5 deg, moves the null: measured 0.87 dB at worst, a line-fed pair 35 dB down); deeper
-    # nulls are not compared.  Measured elsewhere: within 0.18 dB (flag), 0.15 (delta, four-square), 0.05 (small
-    # loop), 0.02 (verticals).
+    # nulls are not compared.  Measured elsewhere: within 0.18 dB (flag), 0.15 (delta, four-square), 0.20 (pennant;
+    # 0.10 above 20 dB down), 0.07 (diamond), 0.05 (small loop), 0.02 (verticals).
     a = from_spec({**FAMILIES[name], **({} if "positions" in FAMILIES[name] else {"position": [0, 0]})})
     ref = from_spec({"family": "vertical", "height": "41 m", "ground": "moist loam", "position": [0, 0]})
     a_at = np.asarray(a.positions, dtype=float).mean(axis=0) if hasattr(a, "positions") else np.zeros(2)
