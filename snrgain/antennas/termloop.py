@@ -278,27 +278,30 @@ def loop_line(freq_hz: float, *, inductance_per_m: float, capacitance_per_m: flo
     return lines.LineConstants(float(freq_hz), z, y, complex(gamma), complex(np.sqrt(z / y)))
 
 
-def _plane_wave_voltages(freq_hz: float, pts, dirs, current, azimuth_rad, elevation_rad, ground):
-    """(vertical, horizontal) voltages sum E . direction x current over segments for unit plane waves from each
-    (azimuth, elevation) [rad] (arrays of M), incident plus Fresnel-reflected, phase 0 at the origin: the field
-    :func:`snrgain.model.placed.plane_wave_field` gives one direction at a time, all directions at once."""
+def _plane_wave_voltages(freq_hz: float, pts, dirs, currents, azimuth_rad, elevation_rad, ground):
+    """(vertical, horizontal) voltages sum E . direction x current over segments, each (K, M), for K sets of currents
+    (K, N) and unit plane waves from each (azimuth, elevation) [rad] (arrays of M), incident plus Fresnel-reflected,
+    phase 0 at the origin: the field :func:`snrgain.model.placed.plane_wave_field` gives one direction at a time,
+    all directions and sets at once."""
     from snrgain.physics.ground import reflection_coefficients
 
     k = 2 * np.pi * freq_hz / C_M_PER_S
+    currents = np.atleast_2d(currents)
     ca, sa = np.cos(azimuth_rad), np.sin(azimuth_rad)
     ce, se = np.cos(elevation_rad), np.sin(elevation_rad)
     toward = np.column_stack([ce * sa, ce * ca, se])  # (M, 3) toward where each wave comes from
     mirror = toward * [1.0, 1.0, -1.0]
     r_v, r_h = reflection_coefficients(ground, elevation_rad, freq_hz)
-    moment = dirs * np.asarray(current)[:, None]  # (N, 3)
-    direct = np.exp(1j * k * (toward @ pts.T)) @ moment  # (M, 3): sum of e^{jk r.d} times each segment's moment
-    reflected = np.exp(1j * k * (mirror @ pts.T)) @ moment
-    p_v = np.column_stack([-se * sa, -se * ca, ce])
-    p_v_image = np.column_stack([se * sa, se * ca, ce])
-    p_h = np.column_stack([ca, -sa, np.zeros_like(ca)])
-    v = np.sum(p_v * direct, axis=1) + r_v * np.sum(p_v_image * reflected, axis=1)
-    h = np.sum(p_h * direct, axis=1) + r_h * np.sum(p_h * reflected, axis=1)
-    return v, h
+    moment = (dirs[:, :, None] * currents.T[:, None, :]).reshape(len(dirs), -1)  # (N, 3 K)
+    shape = (len(toward), 3, len(currents))
+    direct = (np.exp(1j * k * (toward @ pts.T)) @ moment).reshape(shape)  # sum of e^{jk r.d} times the moments
+    reflected = (np.exp(1j * k * (mirror @ pts.T)) @ moment).reshape(shape)
+    p_v = np.column_stack([-se * sa, -se * ca, ce])[:, :, None]
+    p_v_image = np.column_stack([se * sa, se * ca, ce])[:, :, None]
+    p_h = np.column_stack([ca, -sa, np.zeros_like(ca)])[:, :, None]
+    v = np.sum(p_v * direct, axis=1) + r_v[:, None] * np.sum(p_v_image * reflected, axis=1)
+    h = np.sum(p_h * direct, axis=1) + r_h[:, None] * np.sum(p_h * reflected, axis=1)
+    return v.T, h.T
 
 
 @register(
@@ -521,8 +524,8 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         el = np.radians(np.repeat(_FIT_ELEVATIONS_DEG, len(_FIT_AZIMUTHS_DEG)))
         rv, rh = self.complex_response(freq_hz, az, el)
         target = np.concatenate([rv, rh])
-        a = np.concatenate(_plane_wave_voltages(freq_hz, pts, dirs, closed, az, el, self.ground))
-        b = np.concatenate(_plane_wave_voltages(freq_hz, pts, dirs, rest, az, el, self.ground))
+        v, h = _plane_wave_voltages(freq_hz, pts, dirs, np.vstack([closed, rest]), az, el, self.ground)
+        a, b = np.concatenate([v[0], h[0]]), np.concatenate([v[1], h[1]])
         keep = np.abs(target) > _FIT_FLOOR * np.max(np.abs(target))
         w = 1.0 / np.abs(target[keep])
         a, b, target = a[keep] * w, b[keep] * w, target[keep] * w
