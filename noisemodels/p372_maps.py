@@ -184,11 +184,16 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     place = np.broadcast_to(np.arange(lat.size).reshape(lat.shape), shape)
     b = np.broadcast_to(b, shape)
     out = np.empty(shape)
-    for blk in np.unique(b):
+    for blk in np.unique(block):  # the distinct blocks of the argument as given (small), not of its broadcast
         sel = b == blk
         idx = place[sel]
-        z = np.einsum("nk,kj->nj", sin_k[idx], c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)
-        out[sel] = np.einsum("nj,nj->n", z, sin_j[idx]) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * p[idx]
+        # the places this block is asked at, each once: all of them (no gathers) when it covers every place
+        need = np.unique(idx) if idx.size < lat.size else np.arange(lat.size)
+        whole = need.size == lat.size
+        sk, sj, pp = (sin_k, sin_j, p) if whole else (sin_k[need], sin_j[need], p[need])
+        z = np.einsum("nk,kj->nj", sk, c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)
+        value = np.einsum("nj,nj->n", z, sj) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * pp
+        out[sel] = value[idx] if whole else value[np.searchsorted(need, idx)]
     return out
 
 
@@ -198,6 +203,20 @@ def block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block):
     f = np.asarray(freq_mhz, dtype=float)
     b = np.asarray(block, dtype=int)
     fam1 = fam_1mhz(c, lat, lon_rad, b)
+    if f.size == 1 or np.all(f == f.flat[0]):
+        # One frequency: every polynomial of step 3-4 depends on the table row t alone (block and hemisphere, 12
+        # rows), so each is evaluated once per row and gathered, the same sums as per place
+        f0 = float(f.flat[0])
+        lat, b, fam1 = np.broadcast_arrays(lat, b, fam1)
+        t = np.where(lat >= 0, b, b + 6)
+        u = (8.0 * 2.0 ** np.log10(f0) - 11.0) / 4.0
+        x = np.log10(min(f0, 20.0))
+        pz0, px0 = _horner(c.fam[:, 0:7], -0.75), _horner(c.fam[:, 7:14], -0.75)
+        pzu, pxu = _horner(c.fam[:, 0:7], u), _horner(c.fam[:, 7:14], u)
+        fa = (fam1 * (2.0 - pz0[t]) - px0[t]) * pzu[t] + pxu[t]
+        out = (fa, _horner(c.dud[0], x)[t], _horner(c.dud[1], x)[t])
+        shape = np.broadcast_shapes(t.shape, f.shape)
+        return out if shape == t.shape else tuple(np.broadcast_to(v, shape).copy() for v in out)
     lat, f, b, fam1 = np.broadcast_arrays(lat, f, b, fam1)
     t = np.where(lat >= 0, b, b + 6)
     pz_c = c.fam[t, 0:7]
@@ -223,13 +242,26 @@ def interpolate_blocks(lmt_h, values_by_block):
     ``values_by_block`` is a tuple (fa, du, dl) of arrays with a leading axis of 6.
     """
     fa, du, dl = values_by_block
-    s = (np.asarray(lmt_h, dtype=float) - 2.0) / 4.0  # 0 at block 0's centre
-    lo = np.floor(s).astype(int) % 6
-    hi = (lo + 1) % 6
-    w = s - np.floor(s)
+    lo, hi, w = _block_pair(lmt_h)
 
     def pick(arr, idx):
         return np.take_along_axis(arr, idx[None, ...], axis=0)[0]
 
     p = (1 - w) * 10 ** (pick(fa, lo) / 10) + w * 10 ** (pick(fa, hi) / 10)
     return 10 * np.log10(p), (1 - w) * pick(du, lo) + w * pick(du, hi), (1 - w) * pick(dl, lo) + w * pick(dl, hi)
+
+
+def _block_pair(lmt_h):
+    """The blocks whose centres bracket each local mean time and the weight of the later one."""
+    s = (np.asarray(lmt_h, dtype=float) - 2.0) / 4.0  # 0 at block 0's centre
+    lo = np.floor(s).astype(int) % 6
+    return lo, (lo + 1) % 6, s - np.floor(s)
+
+
+def blend_block_powers(lmt_h, powers_by_block):
+    """:func:`interpolate_blocks`' median as a power ratio, 10^(FaA/10), from the blocks' powers (axis 0 = block
+    0..5, the places' shape after, as ``lmt_h``'s): the same blend without the logarithm and its inverse (a caller
+    that wants the power of every place at many hours, the storm model's sources)."""
+    lo, hi, w = _block_pair(lmt_h)
+    taken = np.take_along_axis(powers_by_block, np.stack([lo, hi]), axis=0)
+    return (1 - w) * taken[0] + w * taken[1]
