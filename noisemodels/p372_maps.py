@@ -25,6 +25,7 @@ centre (02, 06, ..., 22 h local mean time) is interpolated linearly in power
 
 from __future__ import annotations
 
+import math
 import os
 import re
 from dataclasses import dataclass
@@ -108,7 +109,7 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
     dims: dict[str, tuple[int, ...]] = {}
     current = None
     for line_no, line in enumerate(text.replace("\x1a", "").splitlines(), start=1):
-        m = _HEADER.match(line)
+        m = _HEADER.match(line) if "(" in line else None  # a header names its dimensions in parentheses
         if m:
             name = m.group(1)
             current = name if name in SECTIONS else None
@@ -124,7 +125,7 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
             raise P372DataError(
                 f"{path}, line {line_no}: section {current}: not a number in {line.strip()!r}"
             ) from None
-        if not all(np.isfinite(x) and abs(x) < MAX_COEFFICIENT for x in row):
+        if not all(math.isfinite(x) and abs(x) < MAX_COEFFICIENT for x in row):
             raise P372DataError(
                 f"{path}, line {line_no}: section {current}: a value out of range in {line.strip()!r} "
                 f"(coefficients lie within +-{MAX_COEFFICIENT:g}); the file is damaged"
