@@ -198,8 +198,27 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     return out
 
 
+_SMALL_CALLS: dict[tuple, tuple] = {}
+SMALL_CALL = 64
+"""Up to this many places x blocks a call of :func:`block_values` is kept by its arguments' values (a site's own
+level, asked again for every hour of the month), and a copy of the kept values returned."""
+
+
 def block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block):
     """(FaA, D_u, D_l) [dB] for a time block, steps 1-4 (vectorised)."""
+    args = [np.asarray(a, dtype=float) for a in (lat_rad, lon_rad, freq_mhz)] + [np.asarray(block)]
+    if max(a.size for a in args) > SMALL_CALL:
+        return _block_values(c, lat_rad, lon_rad, freq_mhz, block)
+    key = (id(c), *((a.shape, a.dtype.str, a.tobytes()) for a in args))
+    held = _SMALL_CALLS.get(key)
+    if held is None or held[0] is not c:
+        if len(_SMALL_CALLS) >= 512:
+            _SMALL_CALLS.clear()
+        held = _SMALL_CALLS[key] = (c, _block_values(c, lat_rad, lon_rad, freq_mhz, block))
+    return tuple(np.array(v, copy=True) for v in held[1])
+
+
+def _block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block):
     lat = np.asarray(lat_rad, dtype=float)
     f = np.asarray(freq_mhz, dtype=float)
     b = np.asarray(block, dtype=int)

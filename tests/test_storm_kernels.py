@@ -106,3 +106,17 @@ def test_cell_power_at_night_and_by_day_equals_the_law_evaluated_everywhere():
         loss = loss.reshape(geom.hops.shape) + storms.GROUND_LOSS_DB_PER_REFLECTION * (geom.hops - 1)
         want = density * geom.spreading_per_m * 10.0 ** (-loss / 10.0) * np.radians(3.0) * 100e3
         np.testing.assert_allclose(got, want, rtol=1e-12)
+
+
+def test_a_small_call_kept_by_its_arguments_returns_fresh_copies():
+    rng = np.random.default_rng(9)
+    c = _coefficients(rng)
+    lat, lon, blocks = np.radians(43.0), np.radians(-89.0), np.arange(6)
+    first = p372_maps.block_values(c, lat, lon, 1.83, blocks)
+    want = [v.copy() for v in first]
+    first[0][:] = 0.0  # the caller's copy: the kept values do not change
+    again = p372_maps.block_values(c, lat, lon, 1.83, blocks)
+    for a, b in zip(again, want):
+        np.testing.assert_array_equal(a, b)
+    other = _coefficients(np.random.default_rng(10))  # other coefficients: not the kept values
+    assert not np.array_equal(p372_maps.block_values(other, lat, lon, 1.83, blocks)[0], want[0])
