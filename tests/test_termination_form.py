@@ -47,10 +47,10 @@ termination = "auto"
 """
 
 
-def _scenario(tmp_path):
+def _scenario(tmp_path, candidates=CANDIDATES):
     from snrgain.model import pipeline as P
 
-    text = MINIMAL.replace('[[candidate]]\nname = "iso"\nfamily = "isotropic"\n', CANDIDATES)
+    text = MINIMAL.replace('[[candidate]]\nname = "iso"\nfamily = "isotropic"\n', candidates)
     text = text.replace("utc_hours = [3]", "utc_hours = [1, 3, 22]").replace(
         'height = "20 m"', 'height = "20 m"\nposition = [0, 0]'
     )
@@ -94,5 +94,23 @@ def test_a_form_that_does_not_hold_falls_back_to_the_full_passes(tmp_path, monke
     variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
     got = score(variants)
     assert score.direct and score.model is None
+    want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants], k, ti)
+    np.testing.assert_array_equal(got, want)
+
+
+def test_a_wire_with_a_feed_line_is_worked_in_full(tmp_path):
+    # A feed line's share of the temperatures is not checked against the form: every resistor is worked in full.
+    text = CANDIDATES.replace(
+        'bearing = 45\n\n[[candidate]]\nname = "bog"',
+        'bearing = 45\nfeed_line = { to = ["0 m", "0 m"], height = "1 m" }\n\n[[candidate]]\nname = "bog"',
+    )
+    assert "feed_line" in text
+    sc, grid, skies = _scenario(tmp_path, text)
+    k = [a.name for a in sc.antennas].index("bev")
+    score, ref, put, ti = _score(sc, grid, skies, k)
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    got = score(variants)
+    assert score.direct
     want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants], k, ti)
     np.testing.assert_array_equal(got, want)
