@@ -55,6 +55,16 @@ TOP_PER_CANDIDATE = 40
 MAX_COMBINATIONS = 100_000
 EDGE_MARGIN_M = 1.0
 """Placed antennas keep this far inside the lot's outline [m]."""
+REFINE_LEAST_STEP_M = 0.5
+"""The refinement (:meth:`Problem.polish`) stops when its feed-point step is down to this [m] ..."""
+REFINE_LEAST_BEARING_RAD = float(np.radians(0.2))
+"""... its bearing step below this [rad] ..."""
+REFINE_LEAST_LENGTH_M = 1.0
+"""... and its length step below this [m]."""
+REFINE_LEAST_GAIN_DB = 1e-4
+"""A move must gain more than this [dB] to be taken."""
+REFINE_MOST_ROUNDS = 60
+"""The most stencils the refinement tries per candidate (a bound; it stops well before on the scenarios seen)."""
 WIRE_SEPARATION_M = 10.0
 """Placed wires keep at least this far from other wires (common practice: closer, they couple)."""
 
@@ -346,9 +356,10 @@ class Problem:
                 )
         return {k: float(x) for k, x in out.items() if x > 0}
 
-    def violations_many(self, designs: list[Design]) -> list[dict[str, float]]:
-        """:meth:`violations` of many designs standing alone (no other placed wire), each rule worked on all of them
-        at once by shapely's array functions (the same operations, in the same order of rules)."""
+    def violations_many(self, designs: list[Design], others=()) -> list[dict[str, float]]:
+        """:meth:`violations` of many designs beside the placed designs ``others`` (default: standing alone), each
+        rule worked on all of them at once by shapely's array functions (the same operations, in the same order of
+        rules)."""
         import shapely
 
         if designs and all(d.length_m is not None for d in designs):  # wires: their footprints made at once
@@ -401,6 +412,20 @@ class Problem:
                 columns.append(
                     (
                         f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}",
+                        np.where(line, near, 0.0),
+                    )
+                )
+        for o in others:  # the other placed wires, as violations() takes them (after the fixed ones)
+            w = self.footprint(o)
+            if w.length > 0:
+                near = np.where(
+                    shapely.intersects(shapes, w),
+                    10.0,
+                    np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, w)),
+                )
+                columns.append(
+                    (
+                        f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {o.name!r}",
                         np.where(line, near, 0.0),
                     )
                 )
@@ -458,7 +483,7 @@ class Problem:
         from shapely.geometry import Point
 
         minx, miny, maxx, maxy = self.lot.bounds
-        step = max(np.sqrt(self.lot.area / POSITIONS_ON_LOT), 0.5)
+        step = self.lot_step()
         xs = np.arange(minx + step / 2, maxx, step)
         ys = np.arange(miny + step / 2, maxy, step)
         return [(float(x), float(y)) for x in xs for y in ys if self.lot.covers(Point(x, y))]
@@ -515,7 +540,101 @@ class Problem:
             tuple(", ".join(self.sc.targets[t].name for t in self.target[i]) for i in range(len(designs))),
         )
 
-    def refine(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
+    def refine(self, start: Layout) -> Layout:
+        """A local search from ``start`` (:meth:`polish`), each candidate in turn beside the others as they stand;
+        the start is kept unless the layout found keeps every rule and is better (as the ranking scores it)."""
+        designs = list(start.designs)
+        for i in range(len(designs)):
+            designs[i] = self.polish(i, designs[i], designs[:i] + designs[i + 1 :])
+        if designs != list(start.designs) and all(
+            self.violation_m(d, designs[:j]) == 0.0 for j, d in enumerate(designs)
+        ):
+            cand = self._layout(designs)
+            if cand.worth_db > start.worth_db:
+                return cand
+        return start
+
+    def polish(self, i: int, start: Design, others=()) -> Design:
+        """Candidate i's design near ``start`` with the best score (:meth:`snr_gains_db`) that keeps every rule
+        beside ``others``: a compass search (a pattern search with a shrinking stencil: R. M. Lewis, V. Torczon and
+        M. W. Trosset, "Direct search methods: then and now", J. Comput. Appl. Math. 124 (2000) 191-207) over the
+        feed point, the bearing and the length within their ranges, whose steps are worked a stencil at a time.
+
+        A design's far field does not move with it, so the feed point's stencil (the 8 neighbours on a square of
+        side 2 x step) is one call; each step of the bearing or the length (a new pattern) is tried with the same
+        stencil of feed points around the current one, following the ridges where a move of the wire must go with
+        a move of its feed point (a placed source kept off the wire's response).  The first stencil that does
+        better is taken (the one that did last tried first); when none does, every step is halved, until all are
+        below REFINE_LEAST_*.  Steps start at half the grid's spacing (the grid's best is within it)."""
+        pl = self.places[i]
+        b0 = start.bearing_rad
+        has_b = pl.bearing is not None and b0 is not None and not self.switched[i]
+        has_l = pl.length is not None and start.length_m is not None and not self.switched[i]
+        lo_b = pl.bearing[0] if has_b else 0.0
+        span_b = float(np.mod(pl.bearing[1] - pl.bearing[0], 2 * np.pi)) if has_b else 0.0
+        lo_l, hi_l = pl.length if has_l else (0.0, 0.0)
+        pairs, _ = self.grid_designs(i)
+        nb = len({b for b, _ in pairs})
+        step_p = 0.5 * self.lot_step()
+        step_b = 0.5 * span_b / max(nb - 1, 1) if has_b else 0.0
+        step_l = 0.5 * (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0
+        cur = start
+        best = self.snr_gain_db(cur, i)
+        ring = [(dx, dy) for dx in (-1, 0, 1) for dy in (-1, 0, 1) if dx or dy]
+        step = {"p": step_p, "b": step_b, "l": step_l}
+        least = {"p": REFINE_LEAST_STEP_M, "b": REFINE_LEAST_BEARING_RAD, "l": REFINE_LEAST_LENGTH_M}
+        top = dict(step)
+        last = None
+        for _ in range(REFINE_MOST_ROUNDS):
+            moves = [("p", 0)]
+            if has_b:
+                moves += [("b", -1), ("b", 1)]
+            if has_l:
+                moves += [("l", -1), ("l", 1)]
+            if last in moves:
+                moves.remove(last)
+                moves.insert(0, last)
+            moved = False
+            for kind, sign in moves:
+                b, ln = cur.bearing_rad, cur.length_m
+                if kind == "b":
+                    t = float(np.clip(np.mod(b - lo_b, 2 * np.pi), 0.0, span_b))
+                    t2 = float(np.clip(t + sign * step["b"], 0.0, span_b))
+                    if t2 == t:
+                        continue
+                    b = float(np.mod(lo_b + t2, 2 * np.pi))
+                elif kind == "l":
+                    l2 = float(np.clip(ln + sign * step["l"], lo_l, hi_l))
+                    if l2 == ln:
+                        continue
+                    ln = l2
+                sp = step["p"]
+                offsets = ring if kind == "p" else [(0, 0), *ring]
+                trial = [
+                    replace(cur, east_m=cur.east_m + dx * sp, north_m=cur.north_m + dy * sp, bearing_rad=b, length_m=ln)
+                    for dx, dy in offsets
+                ]
+                ok = [d for d, v in zip(trial, self.violations_many(trial, others)) if not v]
+                if not ok:
+                    continue
+                g = self.snr_gains_db(ok, i) if len(ok) > 1 else np.array([self.snr_gain_db(ok[0], i)])
+                k = int(np.argmax(g))
+                if g[k] > best + REFINE_LEAST_GAIN_DB:
+                    if last == (kind, sign):  # the same move again: a longer step (up to the first)
+                        step[kind] = min(2 * step[kind], top[kind])
+                    cur, best, last, moved = ok[k], float(g[k]), (kind, sign), True
+                    break
+            if not moved:
+                if all(step[k] <= least[k] for k in step):
+                    break
+                step = {k: max(v / 2, least[k]) if v > least[k] else v for k, v in step.items()}
+        return cur
+
+    def lot_step(self) -> float:
+        """The spacing of the grid of feed points on the lot [m] (:meth:`lot_points`)."""
+        return max(float(np.sqrt(self.lot.area / POSITIONS_ON_LOT)), 0.5)
+
+    def refine_simplex(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
         """Joint Nelder-Mead from ``start`` over positions, bearings and lengths (within their ranges), with a
         penalty of 3 dB per metre of violation; the start is kept unless a feasible, better layout is found."""
         x0, bounds = [], []
