@@ -24,9 +24,10 @@ The search (deterministic, so reproducible):
    lengths over the range, feed points on a square grid over the lot (about
    150 inside it); the feasible designs kept, the best few per candidate;
 2. the best combination of those that do not cross one another;
-3. a joint local refinement from it (Nelder-Mead: :func:`nelder_mead`, on
-   the continuous values with a penalty for any violation), kept only if it
-   is feasible and better.
+3. a local refinement from it (:meth:`Problem.polish`: a compass search of
+   each candidate's feed point, bearing and length beside the others, the
+   feed points around each trial scored as one batch), kept only if it
+   keeps every rule and is better.
 
 The next-best combinations are reported too, so a builder can weigh a
 layout that is nearly as good and easier to build.
@@ -63,7 +64,9 @@ REFINE_LEAST_LENGTH_M = 1.0
 """... and its length step below this [m]."""
 REFINE_LEAST_GAIN_DB = 1e-4
 """A move must gain more than this [dB] to be taken."""
-REFINE_MOST_ROUNDS = 60
+REFINE_FIRST_STEP = 0.25
+"""The refinement's first steps, as a share of the grid's spacing (its longest steps half of it)."""
+REFINE_MOST_ROUNDS = 100
 """The most stencils the refinement tries per candidate (a bound; it stops well before on the scenarios seen)."""
 WIRE_SEPARATION_M = 10.0
 """Placed wires keep at least this far from other wires (common practice: closer, they couple)."""
@@ -312,7 +315,7 @@ class Problem:
 
     def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
         """:meth:`snr_gains_db` of one design, kept (the layouts shown share designs; so do the refinement's steps)."""
-        key = (i, d, exact)  # the refinement's first simplex moves one candidate at a time: the others' are kept
+        key = (i, d, exact)
         if key not in self._scored:
             self._scored[key] = float(self.snr_gains_db([d], i, exact=exact)[0])
         return self._scored[key]
@@ -575,15 +578,16 @@ class Problem:
         lo_l, hi_l = pl.length if has_l else (0.0, 0.0)
         pairs, _ = self.grid_designs(i)
         nb = len({b for b, _ in pairs})
-        step_p = 0.5 * self.lot_step()
-        step_b = 0.5 * span_b / max(nb - 1, 1) if has_b else 0.0
-        step_l = 0.5 * (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0
+        step_p = self.lot_step()
+        step_b = span_b / max(nb - 1, 1) if has_b else 0.0
+        step_l = (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0
         cur = start
         best = self.snr_gain_db(cur, i)
         ring = [(dx, dy) for dx in (-1, 0, 1) for dy in (-1, 0, 1) if dx or dy]
         step = {"p": step_p, "b": step_b, "l": step_l}
         least = {"p": REFINE_LEAST_STEP_M, "b": REFINE_LEAST_BEARING_RAD, "l": REFINE_LEAST_LENGTH_M}
-        top = dict(step)
+        top = {k: v / 2 for k, v in step.items()}
+        step = {k: v * REFINE_FIRST_STEP for k, v in step.items()}
         last = None
         for _ in range(REFINE_MOST_ROUNDS):
             moves = [("p", 0)]
@@ -634,53 +638,6 @@ class Problem:
         """The spacing of the grid of feed points on the lot [m] (:meth:`lot_points`)."""
         return max(float(np.sqrt(self.lot.area / POSITIONS_ON_LOT)), 0.5)
 
-    def refine_simplex(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
-        """Joint Nelder-Mead from ``start`` over positions, bearings and lengths (within their ranges), with a
-        penalty of 3 dB per metre of violation; the start is kept unless a feasible, better layout is found."""
-        x0, bounds = [], []
-        for i, d in enumerate(start.designs):
-            pl = self.places[i]
-            x0 += [d.east_m, d.north_m]
-            bounds += [self.lot.bounds[0::2], self.lot.bounds[1::2]]
-            if pl.bearing is not None:
-                x0.append(d.bearing_rad)
-                lo, hi = pl.bearing
-                bounds.append((lo, lo + (np.mod(hi - lo, 2 * np.pi) or 0.0)))
-            if pl.length is not None and d.length_m is not None:
-                x0.append(d.length_m)
-                bounds.append(tuple(pl.length))
-
-        def designs_of(x):
-            out, j = [], 0
-            for i, d in enumerate(start.designs):
-                pl = self.places[i]
-                e, n = x[j], x[j + 1]
-                j += 2
-                b, ln = d.bearing_rad, d.length_m
-                if pl.bearing is not None:
-                    b = float(np.mod(x[j], 2 * np.pi))
-                    j += 1
-                if pl.length is not None and d.length_m is not None:
-                    ln = float(x[j])
-                    j += 1
-                out.append(replace(d, east_m=float(e), north_m=float(n), bearing_rad=b, length_m=ln))
-            return out
-
-        def cost(x):
-            ds = designs_of(np.clip(x, [b[0] for b in bounds], [b[1] for b in bounds]))
-            v = sum(self.violation_m(d, ds[:j]) for j, d in enumerate(ds))
-            return -Layout((), tuple(self.snr_gain_db(d, i) for i, d in enumerate(ds)), ()).worth_db + 3.0 * v
-
-        best = nelder_mead(
-            cost, np.array(x0, dtype=float), bounds, max_evaluations=max_evaluations, xatol=0.5, fatol=0.01
-        )
-        ds = designs_of(np.clip(best, [b[0] for b in bounds], [b[1] for b in bounds]))
-        if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
-            cand = self._layout(ds)
-            if cand.worth_db > start.worth_db:
-                return cand
-        return start
-
     def random_valid(self, rng, *, tries: int = 20000) -> Layout:
         """A layout drawn at random among the valid ones (for comparison): uniform positions on the lot's box,
         bearings and lengths in their ranges, redrawn until every rule holds."""
@@ -701,86 +658,6 @@ class Problem:
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
                 return self._layout(ds)
         raise ValueError("layout: no valid random placement found")
-
-
-class _Spent(Exception):
-    """The evaluations allowed are spent."""
-
-
-def nelder_mead(fun, x0, bounds, *, max_evaluations: int, xatol: float, fatol: float) -> np.ndarray:
-    """The point of least ``fun`` found by the Nelder-Mead simplex search within ``bounds`` ((low, high) per
-    variable; J. A. Nelder and R. Mead, "A simplex method for function minimization", Computer Journal 7 (1965)
-    308-313, with the usual coefficients: reflection 1, expansion 2, contraction 1/2, shrink 1/2).
-
-    Conventions (those of scipy.optimize.minimize's "Nelder-Mead", so the layout found is the one it found, a test):
-    the start clipped into the bounds; the first simplex the start and, per variable, the start with that variable
-    5 % larger (0.00025 where it is 0), a vertex beyond an upper bound mirrored back inside it, then all clipped;
-    every trial point clipped; the vertices kept sorted by value; stop when no vertex is more than ``xatol`` from
-    the best in any variable and no value more than ``fatol`` from the best, or before an evaluation beyond
-    ``max_evaluations``."""
-    lo = np.array([b[0] for b in bounds], dtype=float)
-    hi = np.array([b[1] for b in bounds], dtype=float)
-    x0 = np.clip(np.asarray(x0, dtype=float).ravel(), lo, hi)
-    n = len(x0)
-    sim = np.empty((n + 1, n))
-    sim[0] = x0
-    for k in range(n):
-        y = x0.copy()
-        y[k] = 1.05 * y[k] if y[k] != 0 else 0.00025
-        sim[k + 1] = y
-    sim = np.clip(np.where(sim > hi, 2 * hi - sim, sim), lo, hi)
-    calls = [0]
-
-    def f(x):
-        if calls[0] >= max_evaluations:
-            raise _Spent
-        calls[0] += 1
-        return float(fun(np.copy(x)))
-
-    fsim = np.full(n + 1, np.inf)
-    try:
-        for k in range(n + 1):
-            fsim[k] = f(sim[k])
-    except _Spent:
-        pass
-    for _ in range(2):  # sorted twice, as the conventions' first sort is (equal values may swap)
-        order = np.argsort(fsim)
-        sim, fsim = sim[order], fsim[order]
-    while calls[0] < max_evaluations:
-        try:
-            if np.max(np.abs(sim[1:] - sim[0])) <= xatol and np.max(np.abs(fsim[0] - fsim[1:])) <= fatol:
-                break
-            centre = np.add.reduce(sim[:-1], 0) / n
-            worst = sim[-1]
-            xr = np.clip(2 * centre - worst, lo, hi)  # reflected
-            fr = f(xr)
-            if fr < fsim[0]:
-                xe = np.clip(3 * centre - 2 * worst, lo, hi)  # expanded
-                fe = f(xe)
-                sim[-1], fsim[-1] = (xe, fe) if fe < fr else (xr, fr)
-            elif fr < fsim[-2]:
-                sim[-1], fsim[-1] = xr, fr
-            else:
-                if fr < fsim[-1]:  # contracted outside
-                    xc = np.clip(1.5 * centre - 0.5 * worst, lo, hi)
-                    fc = f(xc)
-                    shrink = not fc <= fr
-                else:  # contracted inside
-                    xc = np.clip(0.5 * centre + 0.5 * worst, lo, hi)
-                    fc = f(xc)
-                    shrink = not fc < fsim[-1]
-                if not shrink:
-                    sim[-1], fsim[-1] = xc, fc
-                else:
-                    for j in range(1, n + 1):
-                        sim[j] = np.clip(sim[0] + 0.5 * (sim[j] - sim[0]), lo, hi)
-                        fsim[j] = f(sim[j])
-        except _Spent:
-            pass
-        finally:
-            order = np.argsort(fsim)
-            sim, fsim = sim[order], fsim[order]
-    return sim[0]
 
 
 def plan_data(problem: Problem, layout: Layout) -> dict:
