@@ -198,15 +198,19 @@ class Problem:
             spec, f"candidate {name!r}", site_ground=site_ground, base_dir=self.base_dir, freq_hz=self.sc.freq_hz
         )
 
-    def design_products(self, i: int, bearing_rad: float, length_m: float | None):
+    def design_products(self, i: int, bearing_rad: float, length_m: float | None, at_m=None):
         """(antenna, products of [reference, antenna]) for a (bearing, length) of candidate i, made once through the
-        pipeline's stages; other positions reuse its gains (a placed antenna's far field does not move)."""
+        pipeline's stages; other positions reuse its gains (a placed antenna's far field does not move).  ``at_m``:
+        where the antenna made stands (the first place it is scored at, so the placed sources' pickup it holds is
+        of use there; default: no position, the reference's place)."""
         from snrgain.model import pipeline
 
         key = self._key(i, bearing_rad, length_m)
         hit = self._sky.get(key)
         if hit is None:
             ant = self.antenna(i, bearing_rad, length_m)
+            if at_m is not None:
+                ant = ant.at(at_m)
             sub = pipeline.with_candidates(self.sc, [ant], 1 + self.index[i])
             with tabled():
                 p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
@@ -240,8 +244,12 @@ class Problem:
             ants = [self.antenna(i, d0.bearing_rad, d0.length_m).at((d0.east_m, d0.north_m))]
             known = self.ref
         else:
-            ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m)
-            ants = [ant0.at((d.east_m, d.north_m)) for d in designs]
+            ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m, at_m=(d0.east_m, d0.north_m))
+            # the antenna the design's products were made with, where it stands: its pickup is taken from them
+            ants = [
+                ant0 if (d.east_m, d.north_m) == ant0.params.position else ant0.at((d.east_m, d.north_m))
+                for d in designs
+            ]
         if exact:
             return self.ranked_gains_db(ants, i)[:, self.target[i][0]]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
