@@ -62,7 +62,7 @@ REFINE_LEAST_BEARING_RAD = float(np.radians(0.2))
 """... its bearing step below this [rad] ..."""
 REFINE_LEAST_LENGTH_M = 1.0
 """... and its length step below this [m]."""
-REFINE_LEAST_GAIN_DB = 1e-4
+REFINE_LEAST_GAIN_DB = 1e-3
 """A move must gain more than this [dB] to be taken."""
 REFINE_FIRST_STEP = 0.25
 """The refinement's first steps, as a share of the grid's spacing (its longest steps half of it)."""
