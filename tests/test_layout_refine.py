@@ -93,3 +93,27 @@ def test_polish_ends_where_no_last_stencil_does_better(demo):
     ok = [d for d in trials if demo.violation_m(d) == 0.0]
     scores = [demo.snr_gains_db([d], i)[0] for d in ok]
     assert max(scores) <= best + lay.REFINE_LEAST_GAIN_DB + 1e-9
+
+
+def test_a_bearing_range_across_north_is_searched_across_it(monkeypatch):
+    # A range of 340..20 deg (across north): from 350 deg the search walks through 0 deg to the best at 8 deg, and
+    # never leaves the range (the objective rises to 30 deg, past its end).
+    pr = _problem()
+    i = pr.names.index("Beverage Europe")
+    pr.places[i] = pr.places[i].model_copy(update={"bearing": [float(np.radians(340.0)), float(np.radians(20.0))]})
+
+    def turn(d):
+        b = (np.degrees(d.bearing_rad) + 180.0) % 360.0 - 180.0  # -180..180
+        return float(-((b - 8.0) ** 2) / 10 - ((d.east_m - 20.0) ** 2 + (d.north_m - 60.0) ** 2) / 50)
+
+    def along(d):  # up to 30 deg, past the range's end
+        b = (np.degrees(d.bearing_rad) + 180.0) % 360.0 - 180.0
+        return float(b)
+
+    start = Design("Beverage Europe", 20.0, 60.0, float(np.radians(350.0)), 200.0)
+    for f, want in ((turn, 8.0), (along, 20.0)):
+        monkeypatch.setattr(pr, "snr_gains_db", lambda ds, i, exact=False, f=f: np.array([f(d) for d in ds]))
+        monkeypatch.setattr(pr, "snr_gain_db", lambda d, i, exact=False, f=f: f(d))
+        got = pr.polish(i, start)
+        b = (np.degrees(got.bearing_rad) + 180.0) % 360.0 - 180.0
+        assert b == pytest.approx(want, abs=0.5)

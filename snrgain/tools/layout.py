@@ -575,8 +575,10 @@ class Problem:
         side 2 x step) is one call; each step of the bearing or the length (a new pattern) is tried with the same
         stencil of feed points around the current one, following the ridges where a move of the wire must go with
         a move of its feed point (a placed source kept off the wire's response).  The first stencil that does
-        better is taken (the one that did last tried first); when none does, every step is halved, until all are
-        below REFINE_LEAST_*.  Steps start at half the grid's spacing (the grid's best is within it)."""
+        better is taken (the one that did last tried first, its step doubled when it does better again, up to half the
+        grid's spacing); when none does, every step is halved, down to REFINE_LEAST_*, and the search ends when a
+        stencil of those least steps finds nothing better.  Steps start at REFINE_FIRST_STEP of the grid's spacing
+        (the grid's best is within half of it of a better design)."""
         pl = self.places[i]
         b0 = start.bearing_rad
         has_b = pl.bearing is not None and b0 is not None and not self.switched[i]
@@ -586,16 +588,17 @@ class Problem:
         lo_l, hi_l = pl.length if has_l else (0.0, 0.0)
         pairs, _ = self.grid_designs(i)
         nb = len({b for b, _ in pairs})
-        step_p = self.lot_step()
-        step_b = span_b / max(nb - 1, 1) if has_b else 0.0
-        step_l = (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0
+        spacing = {  # the grid's: feed points, bearings, lengths
+            "p": self.lot_step(),
+            "b": span_b / max(nb - 1, 1) if has_b else 0.0,
+            "l": (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0,
+        }
         cur = start
         best = self.snr_gain_db(cur, i)
         ring = [(dx, dy) for dx in (-1, 0, 1) for dy in (-1, 0, 1) if dx or dy]
-        step = {"p": step_p, "b": step_b, "l": step_l}
         least = {"p": REFINE_LEAST_STEP_M, "b": REFINE_LEAST_BEARING_RAD, "l": REFINE_LEAST_LENGTH_M}
-        top = {k: v / 2 for k, v in step.items()}
-        step = {k: v * REFINE_FIRST_STEP for k, v in step.items()}
+        top = {k: v / 2 for k, v in spacing.items()}
+        step = {k: v * REFINE_FIRST_STEP for k, v in spacing.items()}
         last = None
         for _ in range(REFINE_MOST_ROUNDS):
             moves = [("p", 0)]
@@ -610,7 +613,9 @@ class Problem:
             for kind, sign in moves:
                 b, ln = cur.bearing_rad, cur.length_m
                 if kind == "b":
-                    t = float(np.clip(np.mod(b - lo_b, 2 * np.pi), 0.0, span_b))
+                    t = float(np.mod(b - lo_b, 2 * np.pi))
+                    if t > span_b:  # outside the range by rounding: the nearer end
+                        t = 0.0 if 2 * np.pi - t < t - span_b else span_b
                     t2 = float(np.clip(t + sign * step["b"], 0.0, span_b))
                     if t2 == t:
                         continue
