@@ -371,6 +371,18 @@ class Problem:
         """:meth:`violations` of many designs beside the placed designs ``others`` (default: standing alone), each
         rule worked on all of them at once by shapely's array functions (the same operations, in the same order of
         rules)."""
+        columns = self.violation_columns(designs, others)
+        return [{rule: float(v[j]) for rule, v in columns if v[j] > 0} for j in range(len(designs))]
+
+    def keep_rules(self, designs: list[Design], others=()) -> np.ndarray:
+        """Whether each design keeps every rule beside ``others`` (:meth:`violations_many` empty), as an array."""
+        columns = self.violation_columns(designs, others)
+        if not columns:
+            return np.ones(len(designs), dtype=bool)
+        return ~np.any(np.array([v > 0 for _, v in columns]), axis=0)
+
+    def violation_columns(self, designs: list[Design], others=()) -> list[tuple[str, np.ndarray]]:
+        """(rule, how far each design breaks it [m]) of :meth:`violations_many`, rule by rule."""
         import shapely
 
         if designs and all(d.length_m is not None for d in designs):  # wires: their footprints made at once
@@ -440,7 +452,7 @@ class Problem:
                         np.where(line, near, 0.0),
                     )
                 )
-        return [{rule: float(v[j]) for rule, v in columns if v[j] > 0} for j in range(len(designs))]
+        return columns
 
     def violation_m(self, d: Design, others=()) -> float:
         """How far a design breaks the rules [m] (the sum of :meth:`violations`); 0 when it keeps them all."""
@@ -451,13 +463,14 @@ class Problem:
         ValueError naming the rules that bind, most binding first, when there is none."""
         pairs, points = self.grid_designs(i)
         designs = [Design(self.names[i], e, n, b, ln, self.state_names[i]) for b, ln in pairs for e, n in points]
-        found, blocked = [], {}
-        for d, broken in zip(designs, self.violations_many(designs)):
-            if not broken:
-                found.append(d)
-            for rule in broken:
-                blocked[rule] = blocked.get(rule, 0) + 1
+        columns = self.violation_columns(designs)
+        broken: dict[str, np.ndarray] = {}  # by rule (a name given twice: broken where either column is)
+        for rule, v in columns:
+            broken[rule] = broken.get(rule, np.zeros(len(designs), dtype=bool)) | (v > 0)
+        ok = ~np.any(np.array(list(broken.values())), axis=0) if broken else np.ones(len(designs), dtype=bool)
+        found = [d for d, keep in zip(designs, ok) if keep]
         if not found:
+            blocked = {rule: int(np.count_nonzero(b)) for rule, b in broken.items() if b.any()}
             ranked = sorted(blocked.items(), key=lambda kv: -kv[1])
             rules = "; ".join(f"{rule} ({100 * n / len(designs):.0f} %)" for rule, n in ranked[:4])
             raise ValueError(
@@ -631,7 +644,7 @@ class Problem:
                     replace(cur, east_m=cur.east_m + dx * sp, north_m=cur.north_m + dy * sp, bearing_rad=b, length_m=ln)
                     for dx, dy in offsets
                 ]
-                ok = [d for d, v in zip(trial, self.violations_many(trial, others)) if not v]
+                ok = [d for d, keep in zip(trial, self.keep_rules(trial, others)) if keep]
                 if not ok:
                     continue
                 g = self.snr_gains_db(ok, i) if len(ok) > 1 else np.array([self.snr_gain_db(ok[0], i)])
