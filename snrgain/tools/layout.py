@@ -178,6 +178,7 @@ class Problem:
         self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
         self._scored: dict[tuple, float] = {}
+        self._points: list[tuple[float, float]] | None = None
 
     # -- one candidate ----------------------------------------------------------------------------------------
 
@@ -503,14 +504,18 @@ class Problem:
         return [(b, ln) for b in bearings for ln in lengths], self.lot_points()
 
     def lot_points(self) -> list[tuple[float, float]]:
-        """Feed points on a square grid over the lot, about POSITIONS_ON_LOT of them inside it."""
-        from shapely.geometry import Point
+        """Feed points on a square grid over the lot, about POSITIONS_ON_LOT of them inside it (made once)."""
+        if self._points is None:
+            import shapely
 
-        minx, miny, maxx, maxy = self.lot.bounds
-        step = self.lot_step()
-        xs = np.arange(minx + step / 2, maxx, step)
-        ys = np.arange(miny + step / 2, maxy, step)
-        return [(float(x), float(y)) for x in xs for y in ys if self.lot.covers(Point(x, y))]
+            minx, miny, maxx, maxy = self.lot.bounds
+            step = self.lot_step()
+            xs = np.arange(minx + step / 2, maxx, step)
+            ys = np.arange(miny + step / 2, maxy, step)
+            x, y = (a.ravel() for a in np.meshgrid(xs, ys, indexing="ij"))  # x outer, y inner, as listed before
+            inside = shapely.covers(self.lot, shapely.points(x, y))
+            self._points = [(float(a), float(b)) for a, b in zip(x[inside], y[inside])]
+        return list(self._points)
 
     def search(self, *, progress=None, keep: int = 3) -> list[Layout]:
         """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
