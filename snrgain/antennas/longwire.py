@@ -58,6 +58,7 @@ neglected.  NEC-2 (PyNEC) is the independent check in the tests.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Literal
 
@@ -333,22 +334,25 @@ def lead_impedance_ohm(height_m: float, radius_m: float) -> float:
     image share, half of a 2h wire's (:func:`straight_wire_inductance_h`, Grover), times the speed of light: the
     same inductance, and the capacitance that goes with it on a line at the speed of light."""
     h = float(height_m)
-    return ETA0_OHM / (2 * np.pi) * (np.log(4 * h / float(radius_m)) - 1.0)
+    return ETA0_OHM / (2 * math.pi) * (math.log(4 * h / float(radius_m)) - 1.0)
 
 
 def up_the_lead(z_bottom, freq_hz: float, height_m: float, z_lead: float):
     """The impedance [ohm] a lossless line of length ``height_m``, characteristic impedance ``z_lead`` and the
     speed of light presents at one end with ``z_bottom`` at the other (the standard transmission-line result),
     elementwise: a down-lead with its load (resistor or transformer, and ground rod) at its foot."""
-    t = np.tan(2 * np.pi * float(freq_hz) / C_M_PER_S * float(height_m))
+    t = math.tan(2 * math.pi * float(freq_hz) / C_M_PER_S * float(height_m))
+    z_lead = float(z_lead)
+    if not isinstance(z_bottom, np.ndarray):  # one load: Python's complex arithmetic (a pattern's loads, per call)
+        z_bottom = complex(z_bottom)
     return z_lead * (z_bottom + 1j * z_lead * t) / (z_lead + 1j * z_bottom * t)
 
 
 def lead_current_ratio(z_bottom, freq_hz: float, height_m: float, z_lead: float) -> complex:
     """The current at the foot of that line over the current entering its top [-]: 1 / (cos kh + j (Z_b / Z_lead)
     sin kh) (the same line's voltage and current relations); 1 for h = 0."""
-    kh = 2 * np.pi * float(freq_hz) / C_M_PER_S * float(height_m)
-    return 1.0 / (np.cos(kh) + 1j * (z_bottom / z_lead) * np.sin(kh))
+    kh = 2 * math.pi * float(freq_hz) / C_M_PER_S * float(height_m)
+    return 1.0 / (math.cos(kh) + 1j * (complex(z_bottom) / z_lead) * math.sin(kh))
 
 
 # -- pure kernels: the incident wave, the line's response ----------------------------------------------------
@@ -571,6 +575,8 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         self._cache: dict[float, lines.LineConstants] = {}
         self._auto_term: dict[tuple, float] = {}
         self._form_key: str | None = None
+        self._lead_z: tuple | None = None
+        self._loads: dict[tuple, object] = {}  # the end loads per (kind, frequency): a pattern asks for them per call
 
     # -- the line and its loads --------------------------------------------------------
     def _connection_ohm(self, value) -> float:
@@ -593,9 +599,10 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
     def lead_ohm(self) -> float | None:
         """Characteristic impedance of a down-lead [ohm] (:func:`lead_impedance_ohm`, the wire's height and radius);
         None for a wire without down-leads."""
-        if not self.has_leads or self.wire_height_m() <= 0:
-            return None
-        return lead_impedance_ohm(self.wire_height_m(), self.params.radius_m)
+        if self._lead_z is None:  # worked once: (the impedance or None,)
+            leads = self.has_leads and self.wire_height_m() > 0
+            self._lead_z = (lead_impedance_ohm(self.wire_height_m(), self.params.radius_m) if leads else None,)
+        return self._lead_z[0]
 
     def up_lead(self, z_bottom, freq_hz: float):
         """What a load at the foot of a down-lead (resistor or transformer, with its ground rod) presents at the top,
@@ -610,14 +617,30 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         z_lead = self.lead_ohm()
         return 1.0 + 0j if z_lead is None else lead_current_ratio(z_bottom, freq_hz, self.wire_height_m(), z_lead)
 
+    def _kept(self, kind: str, freq_hz: float, make):
+        """A load of this antenna at a frequency, worked once (the antenna's parameters do not change)."""
+        key = (kind, float(freq_hz))
+        hit = self._loads.get(key)
+        if hit is None and key not in self._loads:
+            hit = self._loads[key] = make()
+        return hit
+
     def feed_load_ohm(self, freq_hz: float) -> complex:
         """What the wire meets at its feed end [ohm]: the receiver's load through the transformer and the feed ground
         connection, in series at the foot of the feed down-lead, seen up the lead."""
-        return complex(self.up_lead(self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm, freq_hz))
+
+        def make():
+            return complex(self.up_lead(self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm, freq_hz))
+
+        return self._kept("feed", freq_hz, make)
 
     def feed_current_ratio(self, freq_hz: float) -> complex:
         """The current in the receiver's load over the wire's feed current (at the top of the feed lead) [-]."""
-        return self.lead_current_ratio(self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm, freq_hz)
+
+        def make():
+            return complex(self.lead_current_ratio(self.receiver_load_ohm(freq_hz) + self.feed_rod_ohm, freq_hz))
+
+        return self._kept("feed ratio", freq_hz, make)
 
     def wire_height_m(self) -> float:
         return self.params.height
@@ -693,15 +716,24 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
     def far_load_ohm(self, freq_hz: float):
         """What the wire meets at its far end [ohm]: the termination and the far ground connection in series at the
         foot of the far down-lead, seen up the lead; None if open."""
-        t = self.termination_ohm(freq_hz)
-        return None if t is None else complex(self.up_lead(t + self.far_rod_ohm, freq_hz))
+
+        def make():
+            t = self.termination_ohm(freq_hz)
+            return None if t is None else complex(self.up_lead(t + self.far_rod_ohm, freq_hz))
+
+        return self._kept("far", freq_hz, make)
 
     def feed_point_impedance(self, freq_hz: float) -> complex:
         """Impedance the transformer's primary sees: the wire's input impedance down the feed lead, plus the feed
         ground rod [ohm]."""
-        ln = self.line(freq_hz)
-        z_line = lines.input_impedance(ln, length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz))
-        return complex(self.up_lead(z_line, freq_hz)) + self.feed_rod_ohm
+
+        def make():
+            z_line = lines.input_impedance(
+                self.line(freq_hz), length_m=self.length_m, load_ohm=self.far_load_ohm(freq_hz)
+            )
+            return complex(self.up_lead(z_line, freq_hz)) + self.feed_rod_ohm
+
+        return self._kept("feed point", freq_hz, make)
 
     def check_frequency(self, freq_hz):
         _check_band(freq_hz)
