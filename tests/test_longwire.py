@@ -429,9 +429,10 @@ def test_down_leads_against_nec2_over_a_perfect_ground():
     # moved by under 3.5 % from 1 m segments).  Short wires shorted at the far end show the leads' inductance: the
     # model's feed impedance within 2.4-5.9 % of NEC's (the leads neglected: 12-43 %, all too low); 150 m wires with
     # 300 ohm at the foot of the far lead show their capacitance too: within 3.2-5.3 % (neglected: 7.1-28 %; a series
-    # inductance alone, 4.2-16 %).  Checked to 6.5 % against the neglected leads' 12 % and 7 %.  (Longer wires with a
-    # near-matched resistor turn on the line's own propagation over a perfect ground, which neither side of this
-    # comparison is about: 8-32 % with or without the leads.)
+    # inductance alone, 4.2-16 %); unterminated wires (no far lead, open) of 10-60 m, whose high feed impedance the
+    # feed lead's capacitance works on most: within 0.4-3.4 % (neglected: 22-40 %).  Checked to 6.5 % against the
+    # neglected leads' 12, 7 and 20 %.  (Longer wires with a near-matched resistor turn on the line's own propagation
+    # over a perfect ground, which neither side of this comparison is about: 8-32 % with or without the leads.)
     import sys
 
     sys.path.insert(0, str(NEC_DIR))
@@ -440,32 +441,32 @@ def test_down_leads_against_nec2_over_a_perfect_ground():
     a = 0.0008138
     cases = [(1.83, 20, 3, 0), (1.83, 20, 2, 0), (1.83, 20, 1, 0), (1.83, 10, 3, 0), (3.6, 10, 2, 0)]
     cases += [(1.83, 150, 3, 300), (1.83, 150, 2, 300), (1.83, 150, 1, 300)]
+    cases += [(1.83, 20, 3, None), (1.83, 30, 2, None), (1.83, 60, 3, None), (3.6, 30, 2, None), (1.83, 10, 3, None)]
     with tempfile.TemporaryDirectory() as tmp:
         for f_mhz, length, h, term in cases:
             nl = round(h / 0.25)
-            deck = "\n".join(
-                [
-                    "CM down-lead check over a perfect ground",
-                    "CE",
-                    f"GW 1 {nl} 0 0 0 0 0 {h:g} {a:g}",
-                    f"GW 2 {round(length / 0.25)} 0 0 {h:g} {length:g} 0 {h:g} {a:g}",
-                    f"GW 3 {nl} {length:g} 0 {h:g} {length:g} 0 0 {a:g}",
-                    "GE 1",
-                    "GN 1",
-                    f"LD 0 3 1 1 {term:g} 0 0",
-                    f"FR 0 1 0 0 {f_mhz:g} 0",
-                    "EX 0 1 1 0 1 0",
-                    "XQ",
-                    "EN",
-                ]
-            )
-            z_nec = input_impedance(run_nec2c(deck + "\n", Path(tmp), "lead"))
-            spec = {"family": "beverage", "length": f"{length} m", "height": f"{h} m", "diameter": f"{2 * a} m"}
-            ant = from_spec({**spec, "termination": term, "feed_ground": 0, "far_ground": 0, "ground": "perfect"})
+            wires = [
+                f"GW 1 {nl} 0 0 0 0 0 {h:g} {a:g}",
+                f"GW 2 {round(length / 0.25)} 0 0 {h:g} {length:g} 0 {h:g} {a:g}",
+            ]
+            if term is not None:
+                wires.append(f"GW 3 {nl} {length:g} 0 {h:g} {length:g} 0 0 {a:g}")
+            deck = ["CM down-lead check over a perfect ground", "CE", *wires, "GE 1", "GN 1"]
+            if term is not None:
+                deck.append(f"LD 0 3 1 1 {term:g} 0 0")
+            deck += [f"FR 0 1 0 0 {f_mhz:g} 0", "EX 0 1 1 0 1 0", "XQ", "EN"]
+            z_nec = input_impedance(run_nec2c("\n".join(deck) + "\n", Path(tmp), "lead"))
+            spec = {"length": f"{length} m", "height": f"{h} m", "diameter": f"{2 * a} m", "ground": "perfect"}
+            if term is None:
+                ant = from_spec({**spec, "family": "unterminated", "feed_ground": 0})
+            else:
+                ant = from_spec({**spec, "family": "beverage", "termination": term, "feed_ground": 0, "far_ground": 0})
             f = f_mhz * 1e6
-            no_leads = lines.input_impedance(ant.line(f), length_m=length, load_ohm=float(term))
+            no_leads = lines.input_impedance(
+                ant.line(f), length_m=length, load_ohm=None if term is None else float(term)
+            )
             assert abs(ant.feed_point_impedance(f) - z_nec) < 0.065 * abs(z_nec)
-            assert abs(no_leads - z_nec) > (0.12 if term == 0 else 0.07) * abs(z_nec)
+            assert abs(no_leads - z_nec) > {None: 0.2, 0: 0.12}.get(term, 0.07) * abs(z_nec)
 
 
 # Tolerances: the README's claims ("Long wires"), each the largest difference measured on these decks rounded up to
