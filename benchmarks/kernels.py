@@ -72,7 +72,7 @@ def beverage_floor(ant, struct):
     line = ant.line(F)
     g, z0, length, h = line.gamma, line.z0, ant.length_m, ant.wire_height_m()
     load = ant.receiver_load_ohm(F)
-    z_feed, z_far = load + ant.feed_rod_ohm, ant.far_load_ohm(F)
+    z_feed, z_far = ant.feed_load_ohm(F), ant.far_load_ohm(F)  # the loads at the leads' feet, seen up the leads
     leads = ant.has_leads
     k = 2 * np.pi * F / C
     eps = _eps(ant.ground, F)
@@ -85,7 +85,7 @@ def beverage_floor(ant, struct):
     else:
         den = z0 * (z_feed + z_far) * ch + (z0 * z0 + z_feed * z_far) * sh
         c_p, c_m, c_end, c_phase = 0.5 * (z0 + z_far), 0.5 * (z0 - z_far), z0 * ch + z_far * sh, z0 * eg
-    scale2 = 4 * np.pi / LAM**2 * load * ETA0 / abs(den) ** 2
+    scale2 = 4 * np.pi / LAM**2 * load * ETA0 * abs(ant.feed_current_ratio(F)) ** 2 / abs(den) ** 2
     s_u, c_u = np.sin(el_u), np.cos(el_u)
 
     def run():

@@ -61,9 +61,10 @@ def _assert_agrees(got, case, *, rdf_db, gain_db, fb_db):
 def test_rdf_trend_with_termination_follows_nec2():
     # Reference: the stored nec2c sweep of the termination resistor (150 m at 1.83 MHz, 3 m up over 1 mS/m,
     # 200-900 ohm) with NEC's wire-to-ground junction taken out as an impedance (deembedded.json; the model's rods are
-    # zero, no fitting).  Each step's change of RDF follows NEC's: measured within 0.034 dB per step (NEC falls
-    # 0.25-0.46 dB per step; with the junction's resistance alone taken out, 0.02 dB and 0.21-0.46 dB), checked to
-    # 0.04 dB (formerly 0.05).  The absolute values are checked in test_against_nec2_with_the_junction_taken_out.
+    # zero, no fitting).  Each step's change of RDF follows NEC's: measured within 0.032 dB per step (0.034 before
+    # the down-leads were modelled as lines; NEC falls 0.25-0.46 dB per step; with the junction's resistance alone
+    # taken out, 0.02 dB and 0.21-0.46 dB), checked to 0.04 dB (formerly 0.05).  The absolute values are checked in
+    # test_against_nec2_with_the_junction_taken_out.
     sweep = [c for c in DEEMB["cases"] if "-r" in c["name"]]
     assert len(sweep) == 6
     nec = np.array([c["rdf_db"] for c in sweep])
@@ -132,12 +133,13 @@ def test_against_pynec_over_perfect_ground(f_mhz, length, height):
         }
     )
     got = _figures(ant, f_mhz * 1e6)
-    # Tolerances: the README's claim, the largest differences measured on these three wires (RDF 0.85-1.57 dB, gain
-    # 0.73-1.49 dB, front-to-back 0.47-1.55 dB, the model above PyNEC in each; formerly 2/2/3 dB, looser than the
-    # README's "within 1.5 dB", which the RDF and front-to-back of the 200 m wire at 1.83 MHz exceeded).
-    assert got["rdf_db"] == pytest.approx(ref["rdf_db"], abs=1.57)
-    assert got["forward_gain_dbi"] == pytest.approx(ref["forward_gain_dbi"], abs=1.49)
-    assert got["front_to_back_db"] == pytest.approx(ref["front_to_back_db"], abs=1.55)
+    # Tolerances: the README's claim, the largest differences measured on these three wires (RDF 0.84-1.62 dB, gain
+    # 0.72-1.54 dB, front-to-back 0.46-1.59 dB, the model above PyNEC in each; with the down-leads neglected 0.85-1.57,
+    # 0.73-1.49 and 0.47-1.55 dB; formerly 2/2/3 dB, looser than the README's "within 1.5 dB", which the RDF and
+    # front-to-back of the 200 m wire at 1.83 MHz exceed).  These decks give each lead one segment.
+    assert got["rdf_db"] == pytest.approx(ref["rdf_db"], abs=1.63)
+    assert got["forward_gain_dbi"] == pytest.approx(ref["forward_gain_dbi"], abs=1.55)
+    assert got["front_to_back_db"] == pytest.approx(ref["front_to_back_db"], abs=1.60)
 
 
 # -- line constants ----------------------------------------------------------------
@@ -234,7 +236,7 @@ def test_closed_form_matches_numerical_integration_of_the_source():
     cur, _ = ant.currents(f, az, el)
     ln = ant.line(f)
     g, z0, L, h = ln.gamma, ln.z0, ant.length_m, 2.5
-    zf = ant.receiver_load_ohm(f) + ant.params.feed_ground
+    zf = ant.feed_load_ohm(f)  # the receiver's load and rod seen up the feed lead (test_down_leads_as_lines)
     zr = ant.far_load_ohm(f)
     k = 2 * np.pi * f / C_M_PER_S
     from snrgain.physics.ground import reflection_coefficients
@@ -251,7 +253,7 @@ def test_closed_form_matches_numerical_integration_of_the_source():
         kern = z0 * np.cosh(g * (L - x)) + zr * np.sinh(g * (L - x))
         v_far = lead * np.exp(1j * k * L * np.cos(el[i]) * np.cos(dphi))
         i_f = (np.trapezoid(ex * kern, x) + lead * (z0 * np.cosh(g * L) + zr * np.sinh(g * L)) - v_far * z0) / d
-        assert cur["v"][0][i] == pytest.approx(i_f, rel=1e-5)
+        assert cur["v"][0][i] == pytest.approx(i_f * ant.feed_current_ratio(f), rel=1e-5)
 
 
 def test_terminated_wire_favours_its_bearing():
@@ -377,36 +379,120 @@ def test_frequency_outside_validity():
         ant.check_frequency(50e6)
 
 
+def test_down_leads_as_lines():
+    # A down-lead is a short line at the speed of light whose per-metre inductance is half a 2h wire's partial
+    # self-inductance (the lead and its image; Grover's filament form, longwire.straight_wire_inductance_h): Z h / c.
+    from snrgain.antennas import longwire as lw
+
+    a = 0.0008138
+    for h in (0.5, 2.0, 6.0):
+        z = lw.lead_impedance_ohm(h, a)
+        assert z * h / C_M_PER_S == pytest.approx(0.5 * lw.straight_wire_inductance_h(2 * h, a), rel=5e-4)
+    # Grover's long-wire limit, (mu0 l / 2 pi)(ln(2l / a) - 1) (from memory), and a 3 m lead near Jordan's 60 (ln(4h /
+    # a) - 1) ohm.
+    assert lw.straight_wire_inductance_h(3.0, a) == pytest.approx(2e-7 * 3.0 * (np.log(6.0 / a) - 1), rel=1e-4)
+    assert lw.lead_impedance_ohm(3.0, a) == pytest.approx(60 * (np.log(12.0 / a) - 1), rel=1e-3)
+    # Electrically short: the load, plus the lead's inductance, less its capacitance's shunt on the load (series
+    # jwL - jwC Z_b^2 to first order in kh); a lossless line passes the power: |I_top|^2 Re Z_top = |I_b|^2 Re Z_b.
+    f, h, z = 1.83e6, 3.0, lw.lead_impedance_ohm(3.0, a)
+    w, ind, cap = 2 * np.pi * f, z * h / C_M_PER_S, h / (z * C_M_PER_S)
+    for zb in (0.0, 50.0, 500.0 - 40j, 900.0):
+        top = lw.up_the_lead(zb, f, h, z)
+        assert top == pytest.approx(zb + 1j * w * ind - 1j * w * cap * zb**2, abs=0.03 * abs(zb) + 2.0)
+        ratio = lw.lead_current_ratio(zb, f, h, z)
+        assert abs(ratio) ** 2 * zb.real == pytest.approx(top.real, rel=1e-9, abs=1e-9)
+    assert lw.up_the_lead(500.0, f, 1e-9, z) == pytest.approx(500.0)
+    # The families: a BOG has no leads; a Beverage's loads pass through them; a 3 m lead of AWG 14 at 1.83 MHz is
+    # about +60j ohm of series reactance, and a 500 ohm resistor at its foot looks like about 500 + 4j from the top
+    # (the lead's own impedance is 516 ohm: its inductance and capacitance nearly cancel).
+    bog = from_spec({"family": "bog", "length": "80 m", "ground": "moist loam", "termination": 400, "far_ground": 10})
+    assert bog.lead_ohm() is None and bog.far_load_ohm(f) == pytest.approx(410.0)
+    bev = from_spec(
+        {
+            "family": "beverage",
+            "length": "150 m",
+            "height": "3 m",
+            "gauge": 14,
+            "termination": 500,
+            "far_ground": 0,
+            "ground": "moist loam",
+        }
+    )
+    assert lw.up_the_lead(0.0, f, 3.0, bev.lead_ohm()).imag == pytest.approx(59.6, abs=0.5)
+    assert bev.far_load_ohm(f) == pytest.approx(500 + 4j, abs=1.0)
+
+
+@pytest.mark.skipif(shutil.which("nec2c") is None, reason="nec2c (Debian package) not installed")
+def test_down_leads_against_nec2_over_a_perfect_ground():
+    # Reference: nec2c over a perfect ground (GN 1): no junction to take out, so the down-leads are all that stands
+    # between the line model and NEC at the ends.  Leads and wire split into 0.25 m segments (NEC's figures below
+    # moved by under 3.5 % from 1 m segments).  Short wires shorted at the far end show the leads' inductance: the
+    # model's feed impedance within 2.4-5.9 % of NEC's (the leads neglected: 12-43 %, all too low); 150 m wires with
+    # 300 ohm at the foot of the far lead show their capacitance too: within 3.2-5.3 % (neglected: 7.1-28 %; a series
+    # inductance alone, 4.2-16 %); unterminated wires (no far lead, open) of 10-60 m, whose high feed impedance the
+    # feed lead's capacitance works on most: within 0.4-3.4 % (neglected: 22-40 %).  Checked to 6.5 % against the
+    # neglected leads' 12, 7 and 20 %.  (Longer wires with a near-matched resistor turn on the line's own propagation
+    # over a perfect ground, which neither side of this comparison is about: 8-32 % with or without the leads.)
+    import sys
+
+    sys.path.insert(0, str(NEC_DIR))
+    from necdeck import input_impedance, run_nec2c
+
+    a = 0.0008138
+    cases = [(1.83, 20, 3, 0), (1.83, 20, 2, 0), (1.83, 20, 1, 0), (1.83, 10, 3, 0), (3.6, 10, 2, 0)]
+    cases += [(1.83, 150, 3, 300), (1.83, 150, 2, 300), (1.83, 150, 1, 300)]
+    cases += [(1.83, 20, 3, None), (1.83, 30, 2, None), (1.83, 60, 3, None), (3.6, 30, 2, None), (1.83, 10, 3, None)]
+    with tempfile.TemporaryDirectory() as tmp:
+        for f_mhz, length, h, term in cases:
+            nl = round(h / 0.25)
+            wires = [
+                f"GW 1 {nl} 0 0 0 0 0 {h:g} {a:g}",
+                f"GW 2 {round(length / 0.25)} 0 0 {h:g} {length:g} 0 {h:g} {a:g}",
+            ]
+            if term is not None:
+                wires.append(f"GW 3 {nl} {length:g} 0 {h:g} {length:g} 0 0 {a:g}")
+            deck = ["CM down-lead check over a perfect ground", "CE", *wires, "GE 1", "GN 1"]
+            if term is not None:
+                deck.append(f"LD 0 3 1 1 {term:g} 0 0")
+            deck += [f"FR 0 1 0 0 {f_mhz:g} 0", "EX 0 1 1 0 1 0", "XQ", "EN"]
+            z_nec = input_impedance(run_nec2c("\n".join(deck) + "\n", Path(tmp), "lead"))
+            spec = {"length": f"{length} m", "height": f"{h} m", "diameter": f"{2 * a} m", "ground": "perfect"}
+            if term is None:
+                ant = from_spec({**spec, "family": "unterminated", "feed_ground": 0})
+            else:
+                ant = from_spec({**spec, "family": "beverage", "termination": term, "feed_ground": 0, "far_ground": 0})
+            f = f_mhz * 1e6
+            no_leads = lines.input_impedance(
+                ant.line(f), length_m=length, load_ohm=None if term is None else float(term)
+            )
+            assert abs(ant.feed_point_impedance(f) - z_nec) < 0.065 * abs(z_nec)
+            assert abs(no_leads - z_nec) > {None: 0.2, 0: 0.12}.get(term, 0.07) * abs(z_nec)
+
+
 # Tolerances: the README's claims ("Long wires"), each the largest difference measured on these decks rounded up to
-# 0.01 dB, with NEC's junction taken out as an impedance (deembedded.json since the references of issue 21; the
-# former, resistance-only figures in brackets, kept in each case's "resistance_only"): RDF 0.19 dB (0.38), forward gain
-# 0.29 dB (0.91), front-to-back 0.52 dB on the wires over 5-30 mS/m (0.60) and 0.87 dB on the rest of the termination
-# sweep (1.22).  Named outliers: the 36 m wire over 30 mS/m at 7.1 MHz, which has almost no directivity, reads 0.85 dB
-# more RDF and 0.93 dB more forward gain than NEC (0.84 and 0.90: its junction, 22 - 2j ohm, is nearly the stub's
-# resistance, 23.4 ohm, less the stub's own radiation resistance, so this case barely moved).  Over 1 mS/m the model's
-# front-to-back is above NEC's in all eight cases, 0.60-3.73 dB; the named ones: the 1.2 m wire at 3.6 MHz 1.84 dB
-# (NEC 12.2, the model 14.0; formerly 4.44 dB against NEC's 9.6), the 300 ohm step of the sweep 1.83 dB (NEC 17.5, the
-# model 19.4; formerly 4.04 against 23.4), and three that got worse: the 400 ohm step 3.73 dB (NEC 19.4, the model
-# 23.2; formerly both above 20 dB, NEC 29.4, and not compared), the 500 ohm step 2.05 dB (NEC 16.8, the model 18.9;
-# formerly 0.32 dB against 19.2) and the 570 ohm wire 1.39 dB (NEC 14.9, the model 16.3; formerly 0.15 dB against
-# 16.2).  Over 1 mS/m the front-to-back near the deepest null turns on what NEC's far end presents: its current
-# along the wire, fitted as a line with a free Z0 over the six sweep steps (make_nearwire.line_fit; a one-off check,
-# not stored), shows the termination plus 19 + 59j ohm now and plus 29 - 37j ohm with the resistance alone taken out
-# (plus 38j over 30 mS/m, where the junction has no reactance; a 3 m lead's partial self-inductance, Rosa's formula
-# from memory, is +55j ohm at 1.83 MHz).  Given those residuals at its far end the model reproduces NEC's sweep within
-# 1.2 dB of front-to-back now, and did formerly but for the 400 ohm null (4.1 dB): the model's neglect of the
-# down-leads' inductance (longwire.py's docstring) is the likely rest of the departure, and the three that got worse
-# had agreed while NEC's far end carried the junction's capacitive reactance instead.  The next test sets these
-# beside NEC's own segmentation spread.
-_RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 0.85}
-_GAIN_WIDER = {"f710-l36-h2-s30ms-deemb": 0.93}
-_FB_WIDER = {
-    "f360-l70-h12-s1ms-deemb": 1.85,
-    "f183-l150-h3-s1ms-r300-deemb": 1.83,
-    "f183-l150-h3-s1ms-r400-deemb": 3.74,
-    "f183-l150-h3-s1ms-r500-deemb": 2.05,
-    "f183-l150-h3-s1ms-deemb": 1.39,
-}
+# 0.01 dB, with NEC's junction taken out as an impedance (deembedded.json) and the model's down-leads as short lines
+# with their loads at their feet (longwire.lead_impedance_ohm; before that, the leads neglected, in brackets): RDF
+# 0.20 dB (0.19), forward gain 0.32 dB (0.29), front-to-back 0.76 dB over 5-30 mS/m (0.52) and 1.93 dB over 1 mS/m
+# (0.87 with five outliers up to 3.74).  The leads moved the model's front-to-back over 5-30 mS/m up by 0.04-0.45 dB
+# (the 1 m wire at 7.1 MHz 0.52 -> 0.75 dB above NEC, the 36 m wire 0.33 -> 0.45) and the 36 m wire's RDF and gain
+# by 0.08 and 0.10 dB; over 1 mS/m, where the deepest nulls turn on what the far end presents, the termination sweep's
+# departures went from +0.62, +1.83, +3.73, +2.05, +0.86, +0.60 dB (200-900 ohm) to -0.40, -0.22, +1.49, +1.92,
+# +1.26, +1.00 dB, the 570 ohm wire's from +1.39 to +1.64 dB and the 1.2 m wire's from +1.84 to +1.80 dB.  Named
+# outlier: the 36 m wire over 30 mS/m at 7.1 MHz, which has almost no directivity, reads 0.92 dB more RDF and
+# 1.03 dB more forward gain than NEC (0.85 and 0.92 before).  A one-off fit of NEC's current along the wire had shown
+# its far end presenting the termination plus 19 + 59j ohm over 1 mS/m, +46j over 5 mS/m and +38j over 30 mS/m: an
+# inductance alone (a lead's partial self-inductance, about +52j ohm for a 3 m lead at 1.83 MHz) brought the sweep
+# within 1.0 dB of front-to-back but took the feed impedance 42-99j ohm above NEC's on every case and the 250 m wire
+# of long.json 2.4 dB below NEC's front-to-back; the lead as a line (its capacitance with the resistor at its foot,
+# as in the decks) keeps the feed impedance and leaves the sweep within 1.92 dB.  Over a perfect ground, with no
+# junction to take out, the lines are the better account (test_down_leads_against_nec2_over_a_perfect_ground).
+_RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 0.93}
+_GAIN_WIDER = {"f710-l36-h2-s30ms-deemb": 1.03}
+FB_DB = {"5-30 mS/m": 0.76, "1 mS/m": 1.93}
+
+
+def _soil(case):
+    return "1 mS/m" if case["conductivity_s_per_m"] < 0.002 else "5-30 mS/m"
 
 
 @pytest.mark.parametrize("case", DEEMB["cases"], ids=[c["name"] for c in DEEMB["cases"]])
@@ -417,41 +503,41 @@ def test_against_nec2_with_the_junction_taken_out(case):
     # The model gets the true rod resistance of NEC's ideal connections: zero, no fitting.
     f = case["freq_mhz"] * 1e6
     ant = _model(case, termination=case["termination_ohm"])
-    fb = 0.87 if "-r" in case["name"] else 0.52
     _assert_agrees(
         _figures(ant, f),
         case,
-        rdf_db=_RDF_WIDER.get(case["name"], 0.19),
-        gain_db=_GAIN_WIDER.get(case["name"], 0.29),
-        fb_db=_FB_WIDER.get(case["name"], fb),
+        rdf_db=_RDF_WIDER.get(case["name"], 0.20),
+        gain_db=_GAIN_WIDER.get(case["name"], 0.32),
+        fb_db=FB_DB[_soil(case)],
     )
 
 
 @pytest.mark.parametrize("case", DEEMB["cases"], ids=[c["name"] for c in DEEMB["cases"]])
 def test_feed_impedance_against_nec2_with_the_junction_taken_out(case):
     # The feed impedance of the same references (the feed's junction, in series with NEC's source, taken out by its
-    # LD 4 load): the line's input impedance with the termination at its far end.  Measured within 13.7 % of NEC's
-    # (largest at 200 ohm over 1 mS/m, 372 - 105j against 358 - 57j ohm, the far down-lead's inductance again);
-    # checked to 14 %.  With the junction's resistance alone taken out NEC's feed impedance kept the junction's
-    # reactance, and the difference reached 45 % (the 1.2 m wire at 3.6 MHz: 545 - 24j against 672 - 337j ohm).
+    # LD 4 load): the line's input impedance with the termination at its far end, down the feed lead.  Measured
+    # within 9.0 % of NEC's over 1 mS/m (the 900 ohm step, 718 - 19j against 738 + 44j ohm; 13.6 % at the 200 ohm
+    # step before the leads were lines) and within 15.8 % over 5-30 mS/m (the 2.5 m wire at 3.6 MHz, 532 - 24j
+    # against 510 + 54j ohm, 12.4 % before: NEC is more inductive there than the model with or without its leads);
+    # checked to 9.1 and 16 %.  With the junction's resistance alone taken out NEC's feed impedance kept the
+    # junction's reactance, and the difference reached 45 % (the 1.2 m wire at 3.6 MHz).
     f = case["freq_mhz"] * 1e6
     z_nec = complex(*case["feed_impedance_ohm"])
     z = _model(case, termination=case["termination_ohm"]).feed_point_impedance(f)
-    assert abs(z - z_nec) < 0.14 * abs(z_nec)
+    assert abs(z - z_nec) < {"1 mS/m": 0.091, "5-30 mS/m": 0.16}[_soil(case)] * abs(z_nec)
 
 
-def test_the_named_outliers_beside_necs_own_spread():
+def test_the_departures_beside_necs_own_spread():
     # tests/nec/make_deembedded.py reran seven cases with the down-leads split finer (40-200 segments per
     # wavelength; NEC's junction grows from 62 - 15j to 117 - 32j ohm over 5 mS/m, from 163 - 96j and 228 - 272j to
     # 652 - 396j and 670 - 803j ohm over 1 mS/m).  Over 5 mS/m the figures hold: front-to-back within 0.50 dB, RDF
     # 0.06 dB, checked to 0.6 and 0.1 dB.  Over 1 mS/m NEC's front-to-back moves with the segmentation, by 8.0 dB at
-    # the 300 ohm step of the sweep (17.3-25.4 dB, the model's 19.4 inside), 2.3 dB for the 1.2 m wire (10.0-12.3 dB),
-    # 1.3, 0.9 and 1.4 dB for the 570 ohm wire and the 400 and 500 ohm steps; for those four the model's
-    # front-to-back lies above every segmentation's, by 1.68, 1.32, 2.87 and 1.98 dB (checked to the next 0.01 dB):
-    # NEC's uncertainty covers part of the departure, the rest is the model's (the far down-lead's inductance, see
-    # above).  With the junction's resistance alone taken out NEC's spread had been 11.9 and 4.8 dB for the first
-    # two, with NEC's front-to-back falling (not rising) as the leads were split finer.  The 7.1 MHz wire's RDF climbs
-    # 0.20 dB toward the model's (0.33 dB formerly), less than the model departs from it (0.85 dB).
+    # the 300 ohm step of the sweep (17.3-25.4 dB, the model's 17.3 at its low end), 2.3 dB for the 1.2 m wire
+    # (10.0-12.3 dB), 1.3, 0.9 and 1.4 dB for the 570 ohm wire and the 400 and 500 ohm steps; for those four the
+    # model's front-to-back lies above every segmentation's, by 1.64, 1.57, 0.63 and 1.85 dB (1.68, 1.32, 2.87 and
+    # 1.98 with the leads neglected; checked to the next 0.01 dB): NEC's uncertainty covers part of the departure.
+    # The 7.1 MHz wire's RDF climbs 0.20 dB toward the model's as NEC's leads are split finer, less than the model
+    # departs from it (0.92 dB).
     checks = {c["name"]: c["runs"] for c in DEEMB["segmentation_check"]}
     cases = {c["name"]: c for c in DEEMB["cases"]}
 
@@ -461,32 +547,35 @@ def test_the_named_outliers_beside_necs_own_spread():
     def spread(name, key):
         return max(values(name, key)) - min(values(name, key))
 
+    def mine(name):
+        case = cases[name]
+        return _figures(_model(case, termination=case["termination_ohm"]), case["freq_mhz"] * 1e6)
+
     assert spread("f183-l131-h2-s5ms-deemb", "front_to_back_db") < 0.6
     assert spread("f183-l131-h2-s5ms-deemb", "rdf_db") < 0.1
     above_every_segmentation = {
-        "f183-l150-h3-s1ms-r300-deemb": 0.0,
-        "f360-l70-h12-s1ms-deemb": 1.69,
-        "f183-l150-h3-s1ms-deemb": 1.33,
-        "f183-l150-h3-s1ms-r400-deemb": 2.88,
-        "f183-l150-h3-s1ms-r500-deemb": 1.99,
+        "f360-l70-h12-s1ms-deemb": 1.65,
+        "f183-l150-h3-s1ms-deemb": 1.58,
+        "f183-l150-h3-s1ms-r400-deemb": 0.64,
+        "f183-l150-h3-s1ms-r500-deemb": 1.86,
     }
-    assert set(above_every_segmentation) == set(_FB_WIDER)
     for name, bound in above_every_segmentation.items():
-        case = cases[name]
-        assert case["front_to_back_db"] == checks[name][0]["front_to_back_db"]  # the stored run is the coarsest
-        mine = _figures(_model(case, termination=case["termination_ohm"]), case["freq_mhz"] * 1e6)["front_to_back_db"]
-        assert abs(mine - case["front_to_back_db"]) > 1.0  # an outlier indeed, beyond the 0.87 dB of the rest
-        assert mine - max(values(name, "front_to_back_db")) <= bound
-    assert spread("f183-l150-h3-s1ms-r300-deemb", "front_to_back_db") > 7.0
+        assert cases[name]["front_to_back_db"] == checks[name][0]["front_to_back_db"]  # the stored run is the coarsest
+        assert 0 < mine(name)["front_to_back_db"] - max(values(name, "front_to_back_db")) <= bound
+    r300 = "f183-l150-h3-s1ms-r300-deemb"
+    assert spread(r300, "front_to_back_db") > 7.0
+    fb = mine(r300)["front_to_back_db"]
+    assert min(values(r300, "front_to_back_db")) - 0.01 <= fb <= max(values(r300, "front_to_back_db"))
     rdf = values("f710-l36-h2-s30ms-deemb", "rdf_db")
     assert rdf == sorted(rdf) and rdf[-1] - rdf[0] > 0.15
+    assert mine("f710-l36-h2-s30ms-deemb")["rdf_db"] - rdf[-1] > 0.5
 
 
 def test_the_impedance_moved_the_former_outliers_toward_the_model():
     # The stored references against their former, resistance-only figures (make_deembedded.py runs both): the two
-    # outliers of the resistive references came nearer the model, 9.56 -> 12.15 dB (the model 13.99) and 23.40 ->
-    # 17.54 dB (19.37), and the 1.2 m wire's RDF by 0.33 dB and forward gain by 0.42 dB (0.38 -> 0.05 and 0.48 ->
-    # 0.06 dB from the model); over 5-30 mS/m nothing moved by more than 1.11 dB front-to-back (the 1 m wire at
+    # outliers of the resistive references came nearer the model, 9.56 -> 12.15 dB (the model 13.95) and 23.40 ->
+    # 17.54 dB (17.32), and the 1.2 m wire's RDF by 0.33 dB and forward gain by 0.42 dB (0.37 -> 0.05 and 0.47 ->
+    # 0.05 dB from the model); over 5-30 mS/m nothing moved by more than 1.11 dB front-to-back (the 1 m wire at
     # 7.1 MHz, whose junction is 62 - 63j ohm) and 0.03 dB RDF.
     cases = {c["name"]: c for c in DEEMB["cases"]}
     for name in ("f360-l70-h12-s1ms-deemb", "f183-l150-h3-s1ms-r300-deemb"):
@@ -512,12 +601,14 @@ def test_against_nec2_beverages_of_builders_lengths(case):
     # Reference: nec2c 1.3 with the one-line fix to fbar() (tests/nec/nec2c-fbar.patch, built by build_nec2c.sh),
     # which lets NEC-2 run wires longer than a wavelength over Sommerfeld ground (the packaged engine gives a feed
     # impedance of -1.5 Mohm on the first of these decks; long.json's engine_check).  Terminated wires of 1.2-2.4
-    # wavelengths, the junction taken out as above (tests/nec/make_long.py).  Tolerances: the README's claims, RDF
-    # 0.11 dB, forward gain 0.43 dB, front-to-back 1.5 dB (measured: RDF 0.00-0.105 dB, gain 0.01-0.43 dB, F/B
-    # 0.3-1.46 dB; formerly 0.5/1/2 dB, looser than the README).
+    # wavelengths, the junction's resistance taken out (tests/nec/make_long.py; its reactance, 15-96j ohm
+    # capacitive on the shorter decks, stays in NEC's loads).  Tolerances: the README's claims, RDF 0.11 dB, forward
+    # gain 0.43 dB, front-to-back 1.76 dB (measured with the down-leads as lines: RDF 0.00-0.107 dB, gain
+    # 0.02-0.42 dB, F/B 0.14-1.75 dB, the 250 m wire over 30 mS/m; with the leads neglected F/B 0.3-1.46 dB, checked
+    # to 1.5; formerly 0.5/1/2 dB, looser than the README).
     f = case["freq_mhz"] * 1e6
     ant = _model(case, termination=case["termination_ohm"])
-    _assert_agrees(_figures(ant, f), case, rdf_db=0.11, gain_db=0.43, fb_db=1.5)
+    _assert_agrees(_figures(ant, f), case, rdf_db=0.11, gain_db=0.43, fb_db=1.76)
 
 
 def test_the_engine_fix_changes_nothing_below_a_wavelength():

@@ -46,7 +46,12 @@ def test_nec2_prefers_the_models_resistor(case):
     # Reference: de-embedded nec2c scans of the far resistor (tests/nec/make_termscan.py), 0.4-1 wavelength.  In NEC
     # as in the model the best RDF lies at 100-270 ohm, far under |Z0| (about 540 ohm): not a model fault.  Measured:
     # the model's RDF follows NEC's within 0.05-0.45 dB over 100-1000 ohm; NEC's RDF at the model's best resistor
-    # is within 0.05 dB of NEC's best on the scan.
+    # is within 0.05 dB of NEC's best on the scan.  These decks take NEC's junction out by its resistance alone, so over
+    # 1 mS/m NEC's far end keeps the junction's reactance (-162j ohm for the 2 m lead at 3.6 MHz): since the model's
+    # down-leads are lines (longwire.lead_impedance_ohm) its RDF there reads 0.70 dB under these decks' at 100 ohm
+    # (-0.70 to +0.17 dB over the scan; -0.36 to -0.06 with the leads neglected), and within 0.29 dB of the same decks
+    # with the junction taken out as an impedance (make_deembedded.deembedded_run, run by hand: -0.21 to +0.29 dB),
+    # checked to 0.71 dB there.
     f = case["freq_mhz"] * 1e6
     best = _beverage(case).termination_ohm(f)
     nec_rdf = [x["rdf_db"] for x in case["runs"]]
@@ -58,7 +63,7 @@ def test_nec2_prefers_the_models_resistor(case):
         g = ant.gain_linear(f, GRID.azimuth_rad, GRID.elevation_rad)
         fw = ant.gain_linear(f, np.array([0.0]), np.array([EL20]))[0]
         rdf = 10 * np.log10(fw / snr.hemisphere_mean_gain(g, GRID))  # NEC's scale (necdeck.metrics_toward)
-        assert rdf == pytest.approx(run["rdf_db"], abs=0.5)
+        assert rdf == pytest.approx(run["rdf_db"], abs=0.71 if case["conductivity_s_per_m"] < 0.002 else 0.5)
 
 
 def _rdf(ant, f, bearing):
@@ -145,10 +150,10 @@ def test_wire_and_build_sheet_agree(spec):
         sheet = build_sheet(ant, f)
         assert rep["termination_answers"][crit]["termination_ohm"] == pytest.approx(sheet["termination_ohm"])
         assert sheet["termination_answer"]["criterion"] == crit
-    # The 140 m wire of issue 22: best RDF near 160 ohm, best front-to-back near 210 ohm, |Z0| less 20 ohm 529 ohm,
-    # and the build sheet now says the same (it said 390-529 ohm).
+    # The 140 m wire of issue 22: best RDF near 150 ohm (161 before the down-leads were modelled as lines), best
+    # front-to-back near 210 ohm, |Z0| less 20 ohm 529 ohm, and the build sheet now says the same (it said 390-529 ohm).
     if spec["length"] == "140 m":
-        assert rep["termination_answers"]["rdf"]["termination_ohm"] == pytest.approx(161, rel=0.05)
+        assert rep["termination_answers"]["rdf"]["termination_ohm"] == pytest.approx(153, rel=0.05)
         assert rep["termination_answers"]["front_to_back"]["termination_ohm"] == pytest.approx(211, rel=0.05)
         assert rep["termination_answers"]["rdf"]["matched_ohm"] == pytest.approx(529, rel=0.02)
         assert rep["termination_answers"]["rdf"]["over_matched_db"] > 0.3

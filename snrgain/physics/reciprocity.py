@@ -47,11 +47,12 @@ def wire_emfs(wire, feeds, x, u, field, along=None, leads=None) -> tuple[np.ndar
 
 
 def through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
-    """The feed currents (N,) from the EMFs of :func:`wire_emfs`, through the line model's transfer functions."""
+    """The feed currents (N,) from the EMFs of :func:`wire_emfs`, through the line model's transfer functions and
+    down the feed lead (the wire's loads, snrgain.antennas.longwire)."""
     n, L = len(emf), wire.length_m
     ln = wire.line(freq_hz)
     g, z0 = ln.gamma, ln.z0
-    z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
+    z_feed = wire.feed_load_ohm(freq_hz)
     z_far = wire.far_load_ohm(freq_hz)
     if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
         transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
@@ -63,7 +64,7 @@ def through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
         current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
             current = current - lead[n:] * transfer[-1]  # down the far lead
-    return current
+    return current * wire.feed_current_ratio(freq_hz)  # the current in the receiver's load, at the feed lead's foot
 
 
 def wire_currents_in_field(wire, freq_hz: float, feeds_m, x_m, field) -> np.ndarray:
