@@ -265,7 +265,15 @@ def _route_emf(fl, src, kind, freq_hz, ground):
     def field(pts, heights):
         return placed_field(src, pts, heights, freq_hz, ground, kind)
 
-    return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
+    return _memo(
+        key,
+        lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src), line_gamma=_gamma(fl, freq_hz, ground)),
+    )
+
+
+def _gamma(fl, freq_hz, ground) -> complex:
+    """The shield's own propagation constant over ``ground`` (its samples resolve the line's wavelength too)."""
+    return fl.line(freq_hz, ground).gamma
 
 
 def _route_emf_key(fl, src, kind, freq_hz, ground) -> tuple:
@@ -282,7 +290,7 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
         if key in _MEMO or key in seen:
             continue
         seen.add(key)
-        x = phys.route_samples(fl, freq_hz, _closest(fl, src))
+        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground))
         todo.append((key, fl, phys.route_points(fl, x)))
     if len(todo) < 2:
         return
@@ -292,7 +300,12 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
     parts = np.split(e, np.cumsum([len(t[2][0]) for t in todo])[:-1])
     for (key, fl, _), part in zip(todo, parts):
         # route_emf takes the field once, at route_points of the same samples: the part worked for this route
-        _memo(key, lambda fl=fl, part=part: phys.route_emf(fl, freq_hz, lambda *_: part, closest_m=_closest(fl, src)))
+        _memo(
+            key,
+            lambda fl=fl, part=part: phys.route_emf(
+                fl, freq_hz, lambda *_: part, closest_m=_closest(fl, src), line_gamma=_gamma(fl, freq_hz, ground)
+            ),
+        )
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:

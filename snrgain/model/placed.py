@@ -64,7 +64,7 @@ from noisemodels import nearground
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.quadrature import even_samples
-from snrgain.physics.reciprocity import LEAD_POINTS, wire_currents_in_field  # noqa: F401 (the module's API)
+from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps, wire_currents_in_field  # noqa: F401 (the module's API)
 from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
 from snrgain.physics.reciprocity import wire_emfs as _emfs
@@ -150,17 +150,19 @@ def antenna_point(antenna, reference_m) -> np.ndarray:
     return np.asarray(reference_m if p is None else p, dtype=float)
 
 
-WIRE_LEAST_SAMPLES = 400
-"""The fewest steps along a wire (:func:`wire_samples`)."""
-
-
-def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarray:
-    """Sample distances along a wire [m]: finer than a 40th of a wavelength and a quarter of the closest
-    approach to the source, at least 400 steps, at most 40,000, an even number of them (Simpson's rule,
+def wire_samples(length_m: float, freq_hz: float, closest_m: float, line_gamma=None) -> np.ndarray:
+    """Sample distances along a wire [m]: even steps as many as :func:`snrgain.physics.reciprocity.sample_steps`
+    gives (finer than a 60th of the shorter of free space's wavelength and the line's own, ``line_gamma``, and a
+    12th of the closest approach to the source), an even number of them (Simpson's rule,
     snrgain.physics.quadrature.samples_rule).  A read-only array, shared by the calls that ask for the same."""
-    lam = C_M_PER_S / freq_hz
-    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    return even_samples(length_m, int(np.clip(np.ceil(length_m / step), WIRE_LEAST_SAMPLES, 40_000)))
+    return even_samples(length_m, sample_steps(length_m, freq_hz, closest_m, line_gamma))
+
+
+def wire_grid(wire, src, freq_hz: float, closest_m: float) -> np.ndarray:
+    """:func:`wire_samples` of a long wire whose closest approach to a placed source is ``closest_m`` in the plan:
+    the source's height above or below the wire and the wire's own line counted."""
+    closest = float(np.hypot(closest_m, src.height_m - wire.wire_height_m()))
+    return wire_samples(wire.length_m, freq_hz, closest, wire.line(freq_hz).gamma)
 
 
 def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:
@@ -186,7 +188,7 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, 
         closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
         grids = {}
         for k, c in enumerate(closest):
-            x = wire_samples(L, freq_hz, float(np.hypot(c, src.height_m)))
+            x = wire_grid(wire, src, freq_hz, float(c))
             grids.setdefault(len(x), (x, []))[1].append(k)
     out = np.zeros(len(feeds), dtype=complex)
     for x, which in grids.values():
@@ -365,7 +367,7 @@ def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind
         to_src = np.asarray(src.position_m)[None, :] - feeds
         along = np.clip(to_src @ u, 0.0, a.length_m)
         closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
-        x = wire_samples(a.length_m, freq_hz, float(np.hypot(closest[0], src.height_m)))
+        x = wire_grid(a, src, freq_hz, float(closest[0]))
         if len(x) >= least:
             continue
         key = _emfs_key(a, src, freq_hz, feeds, ground, x, u, kind, False, least)

@@ -94,9 +94,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from snrgain.physics import lines
-from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.quadrature import even_samples, gauss_legendre, samples_rule
-from snrgain.physics.reciprocity import LEAD_POINTS
+from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -361,16 +360,11 @@ def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_r
     return np.abs(ev) ** 2 + np.abs(eh) ** 2
 
 
-ROUTE_LEAST_SAMPLES = 200
-"""The fewest steps along a run (:func:`route_samples`)."""
-
-
-def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
-    """Distances along the run [m]: finer than a 40th of a wavelength and a quarter of the closest approach of a
-    source, at least 200 steps, at most 20,000, an even number of them."""
-    lam = C_M_PER_S / freq_hz
-    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    return even_samples(fl.length_m, int(np.clip(np.ceil(fl.length_m / step), ROUTE_LEAST_SAMPLES, 20_000)))
+def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None) -> np.ndarray:
+    """Distances along the run [m]: even steps as many as :func:`snrgain.physics.reciprocity.sample_steps` gives
+    for a source whose closest approach is ``closest_m`` (the shield's own line's ``line_gamma`` counted when given),
+    at most 20,000, an even number of them."""
+    return even_samples(fl.length_m, sample_steps(fl.length_m, freq_hz, closest_m, line_gamma, most=20_000))
 
 
 def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
@@ -388,14 +382,14 @@ def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
 
 
-def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
+def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gamma=None):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
     :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads.  The
     run and both leads in one call of the field (:func:`route_points`)."""
     b = fl.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
-    x = route_samples(fl, freq_hz, closest_m)
+    x = route_samples(fl, freq_hz, closest_m, line_gamma)
     e = field(*route_points(fl, x))
     n = len(x)
     emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
@@ -426,4 +420,4 @@ def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m
     Its sign is the antenna's own feed current's (snrgain.antennas.longwire: up the feed lead through the load):
     I_A leaves the junction up into the shield, so the share that comes through the antenna's loop runs down
     through the load, -I_A Z_rod / (Z_rod + Z_loop); the two add as phasors where one source drives both."""
-    return emf_current(fl, c, *route_emf(fl, freq_hz, field, closest_m=closest_m))
+    return emf_current(fl, c, *route_emf(fl, freq_hz, field, closest_m=closest_m, line_gamma=c.line.gamma))
