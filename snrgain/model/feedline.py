@@ -221,15 +221,18 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
         end, _, _ = antenna_end(a, f, ground)
         out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
     fl_powers, effects = {}, {}
+    ks = list(out)
+    loads = np.array([out[k][1].load_ohm for k in ks])
     for src in (s for s in sc.noise.local if s.position_m is not None):
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for kind, _ in placed.dipoles(src):
             _prefetch_route_emfs([fl for fl, _, _ in out.values()], src, kind, f, ground)
-        for k, (fl, c, coherent) in out.items():
-            for kind, _ in placed.dipoles(src):
-                b = port_amplitude(f, _route_current(fl, c, src, kind, f, ground), c.load_ohm)
+            # every feed line's amplitude in one port response (a termination search's resistors share one route)
+            currents = _route_currents([out[k][:2] for k in ks], src, kind, f, ground)
+            b_all = port_amplitudes(f, currents, loads)
+            for k, b in zip(ks, b_all):
                 p[k] += abs(b) ** 2
-                if coherent:  # one source drives both: their currents in the load add as phasors
+                if out[k][2]:  # coherent: one source drives both, their currents in the load add as phasors
                     # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
                     a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
                     d[k] += abs(a + b) ** 2 - abs(a) ** 2
@@ -312,15 +315,50 @@ def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
     """:func:`snrgain.physics.feedline.emf_current` of a placed source's dipole with coupling ``c``: worked once per
     route and source with a unit coupling and scaled to ``c`` by Thevenin's theorem (a termination tried, a choke,
     another antenna end on the same route cost one product; :func:`snrgain.physics.feedline.current_scale`)."""
-    key = ("route-current", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.station_ground_ohm)
-    key = (*key, _source_key(src, kind, freq_hz, ground))
+    unit, current = _route_unit(fl, c, src, kind, freq_hz, ground)
+    return complex(current * phys.current_scale(unit, c))
+
+
+def _route_key(fl) -> tuple:
+    """What a route's current through a unit coupling depends on besides the source: the run, its cable (the
+    shield's line) and the station's ground."""
+    return (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m, fl.station_ground_ohm)
+
+
+def _route_unit(fl, c, src, kind, freq_hz, ground) -> tuple:
+    """(the unit coupling, the current through it) of a route and a placed source's dipole, kept: what
+    :func:`_route_current` scales to each coupling."""
+    key = ("route-current", _route_key(fl), _source_key(src, kind, freq_hz, ground))
 
     def make():
         unit = phys.unit_coupling(c)
         return unit, phys.emf_current(fl, unit, *_route_emf(fl, src, kind, freq_hz, ground))
 
-    unit, current = _memo(key, make)
-    return complex(current * phys.current_scale(unit, c))
+    return _memo(key, make)
+
+
+def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
+    """:func:`_route_current` of each (FeedLine, Coupling) of ``lines_``: (N,), each route's kept current looked up
+    once however many couplings share it (a termination search's resistors)."""
+    units: dict = {}
+    out = np.empty(len(lines_), dtype=complex)
+    for j, (fl, c) in enumerate(lines_):
+        route = _route_key(fl)
+        if route not in units:
+            units[route] = _route_unit(fl, c, src, kind, freq_hz, ground)
+        unit, current = units[route]
+        out[j] = current * phys.current_scale(unit, c)
+    return out
+
+
+def port_amplitudes(freq_hz: float, currents, loads_ohm) -> np.ndarray:
+    """:func:`port_amplitude` of each current [A] (N,) in its load [ohm] (N,)."""
+    from snrgain.antennas.longwire import port_response
+
+    currents = np.asarray(currents, dtype=complex)
+    return port_response(
+        freq_hz, currents, load_ohm=np.asarray(loads_ohm, dtype=float), elevation_rad=np.zeros(len(currents))
+    )
 
 
 def placed_field(src, pts, heights, freq_hz, ground, kind):

@@ -64,7 +64,7 @@ from noisemodels import nearground
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.quadrature import even_samples
-from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps, wire_currents_in_field  # noqa: F401 (the module's API)
+from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps, through_lines, wire_currents_in_field  # noqa: F401 (the module's API)
 from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
 from snrgain.physics.reciprocity import wire_emfs as _emfs
@@ -720,7 +720,16 @@ def received_amplitudes(
 
     Kept in :data:`_AMPLITUDES` by the antenna object itself and the rest of what enters them: :func:`pickup` works
     them out, the antenna's feed line (snrgain.model.feedline) reads them."""
-    key = (
+    key = _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind)
+    held = _AMPLITUDES.get(
+        key, lambda: (antenna, _received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind))
+    )
+    return held[1]
+
+
+def _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind) -> tuple:
+    """:data:`_AMPLITUDES`' key: the antenna object and the rest of what enters its amplitudes."""
+    return (
         id(antenna),
         field_vector,  # the function itself (a test may put another in its place)
         _source_key(src, kind),
@@ -730,10 +739,6 @@ def received_amplitudes(
         tuple(float(c) for c in reference_m),
         None if at_m is None else tuple(float(c) for c in at_m),
     )
-    held = _AMPLITUDES.get(
-        key, lambda: (antenna, _received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind))
-    )
-    return held[1]
 
 
 _AMPLITUDES = Memo(512)
@@ -852,6 +857,7 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for kind, _ in dipoles(src):
             _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p)
+        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
@@ -973,3 +979,50 @@ def _field_power_worked(src, point_m, freq_hz: float, ground) -> float:
         ev, eh = source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)
         total += float(np.abs(ev[0]) ** 2 + np.abs(eh[0]) ** 2)
     return total
+
+
+def _load_variant_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+    """Fill ``p`` (NaN where not known) for long wires standing at one place with one geometry and line that differ
+    only in their loads (a termination search's resistors): the EMFs along the wire once (:func:`_source_emfs`, kept),
+    every wire's feed current from them in one pass (snrgain.physics.reciprocity.through_lines), each one's
+    amplitudes kept as :func:`received_amplitudes` keeps them (its feed line reads them)."""
+    from snrgain.antennas.longwire import port_response
+
+    groups: dict[tuple, list[int]] = {}
+    for k, a in enumerate(antennas):
+        if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
+            continue
+        feed = antenna_point(a, reference_m)
+        ln = a.line(freq_hz)
+        key = (
+            type(a),
+            float(feed[0]),
+            float(feed[1]),
+            float(a.bearing_rad),
+            float(a.length_m),
+            float(a.wire_height_m()),
+            bool(a.has_leads),
+            complex(ln.gamma),
+            complex(ln.z0),
+        )
+        groups.setdefault(key, []).append(k)
+    for ks in (ks for ks in groups.values() if len(ks) > 1):
+        wires = [antennas[k] for k in ks]
+        first = wires[0]
+        feeds = np.atleast_2d(antenna_point(first, reference_m))
+        b = first.bearing_rad
+        u = np.array([np.sin(b), np.cos(b)])
+        to_src = np.asarray(src.position_m) - feeds[0]
+        closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, first.length_m) * u)))
+        x = wire_grid(first, src, freq_hz, closest)
+        loads = np.array([w.receiver_load_ohm(freq_hz) for w in wires])
+        el = np.full(len(wires), src.elevation_rad)
+        total = np.zeros(len(wires))
+        for kind, _ in dipoles(src):
+            emf, lead = _source_emfs(first, src, freq_hz, feeds, ground, x, u, kind)
+            e = port_response(freq_hz, through_lines(wires, freq_hz, x, emf, lead), load_ohm=loads, elevation_rad=el)
+            for w, a in zip(wires, e):
+                key = _amplitudes_key(w, src, freq_hz, reference_m, ground, None, kind)
+                _AMPLITUDES.get(key, lambda w=w, a=a: (w, (complex(a), 0j)))
+            total += np.abs(e) ** 2
+        p[ks] = total

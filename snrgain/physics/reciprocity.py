@@ -94,6 +94,38 @@ def through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
     return current
 
 
+def through_lines(wires, freq_hz, x, emf, lead) -> np.ndarray:
+    """:func:`through_line` of several wires at one place (one feed each) that share their line, length, samples
+    and EMFs and differ only in their loads (a termination search's resistors, a transformer's ratio): (W,) feed
+    currents.  The EMFs enter through two moments, int EMF cosh g(L - x) dx and int EMF sinh g(L - x) dx, worked
+    once; each wire's loads then cost a few scalar operations (the transfer function is linear in them)."""
+    L = wires[0].length_m
+    ln = wires[0].line(freq_hz)
+    g, z0 = ln.gamma, ln.z0
+    emf = np.asarray(emf).reshape(-1)
+    w = samples_rule(x)
+    arg = g * (L - np.asarray(x))
+    ch, sh = np.cosh(arg), np.sinh(arg)
+    m_c, m_s = (emf * ch) @ w, (emf * sh) @ w
+    c_l, s_l = np.cosh(g * L), np.sinh(g * L)
+    out = np.empty(len(wires), dtype=complex)
+    for j, wire in enumerate(wires):
+        z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
+        z_far = wire.far_load_ohm(freq_hz)
+        if z_far is None:  # open far end
+            den = z0 * c_l + z_feed * s_l
+            current = m_s / den
+            if lead is not None:
+                current += lead[0] * sh[0] / den
+        else:
+            d = z0 * (z_feed + z_far) * c_l + (z0**2 + z_feed * z_far) * s_l
+            current = (z0 * m_c + z_far * m_s) / d
+            if lead is not None:  # up the feed lead (the transfer at the first sample), down the far lead (the last)
+                current += lead[0] * (z0 * ch[0] + z_far * sh[0]) / d - lead[1] * (z0 * ch[-1] + z_far * sh[-1]) / d
+        out[j] = current
+    return out
+
+
 def wire_currents_in_field(wire, freq_hz: float, feeds_m, x_m, field) -> np.ndarray:
     """Feed currents [A] (N,) of a long wire with its feed at each of ``feeds_m`` (N, 2) [m], driven by the incident
     ``field(points (M, 2), heights (M,))`` -> (M, 3) [V/m] along it (samples ``x_m`` [m]) and up its leads."""
