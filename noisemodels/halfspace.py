@@ -403,7 +403,12 @@ class _Table:
         skycache.store("halfspace", key, self.values)
 
     def remainder(self, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
-        """(len(rows), N) interpolated remainders."""
+        """(len(rows), N) interpolated remainders.  Points at a few heights (a wire's or a feed line's run and the
+        Gauss-Legendre points up their leads) take the table interpolated along zeta once per height, then a cubic
+        in rho alone (:meth:`_at_heights`): the same tensor-product polynomial, summed in another order."""
+        heights, which = np.unique(zeta, return_inverse=True)
+        if len(heights) * len(self.s) <= 2 * len(zeta):
+            return self._at_heights(rho, zeta, heights, which.reshape(-1))
         i0, ti = _stencil(np.arcsinh(rho / RHO_SCALE_M) / S_STEP, len(self.s))
         j0, tj = _stencil(zeta / ZETA_STEP_M, len(self.zeta))
         nz = len(self.zeta)
@@ -412,6 +417,20 @@ class _Table:
         w = (np.stack(_lagrange(ti), axis=1)[:, :, None] * np.stack(_lagrange(tj), axis=1)[:, None, :]).reshape(-1, 16)
         flat = self.values.reshape(len(self.rows), -1)
         acc = np.einsum("rnk,nk->rn", flat[:, at], w)
+        r = np.hypot(rho, zeta)
+        return acc * (np.exp(-1j * self.k0 * r) / np.maximum(r, 1.0))
+
+    def _at_heights(self, rho, zeta, heights, which) -> np.ndarray:
+        """:meth:`remainder` of points whose heights are ``heights[which]``: the table's columns interpolated to each
+        height (rows, rho nodes, heights), then the cubic in rho at each point."""
+        j0, tj = _stencil(heights / ZETA_STEP_M, len(self.zeta))
+        wz = np.stack(_lagrange(tj), axis=1)  # (heights, 4)
+        cols = self.values[:, :, j0[:, None] + np.arange(4)[None, :]]  # (rows, rho nodes, heights, 4)
+        at_h = np.einsum("rsuk,uk->rsu", cols, wz).reshape(len(self.rows), -1)
+        i0, ti = _stencil(np.arcsinh(rho / RHO_SCALE_M) / S_STEP, len(self.s))
+        nu = len(heights)
+        at = (i0[:, None] + np.arange(4)[None, :]) * nu + which[:, None]
+        acc = np.einsum("rnk,nk->rn", at_h[:, at], np.stack(_lagrange(ti), axis=1))
         r = np.hypot(rho, zeta)
         return acc * (np.exp(-1j * self.k0 * r) / np.maximum(r, 1.0))
 
