@@ -294,21 +294,16 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
             continue
         seen.add(key)
         x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground))
-        todo.append((key, fl, phys.route_points(fl, x)))
+        todo.append((key, fl, x, phys.route_points(fl, x)))
     if len(todo) < 2:
         return
     e = placed_field(
-        src, np.concatenate([t[2][0] for t in todo]), np.concatenate([t[2][1] for t in todo]), freq_hz, ground, kind
+        src, np.concatenate([t[3][0] for t in todo]), np.concatenate([t[3][1] for t in todo]), freq_hz, ground, kind
     )
-    parts = np.split(e, np.cumsum([len(t[2][0]) for t in todo])[:-1])
-    for (key, fl, _), part in zip(todo, parts):
+    parts = np.split(e, np.cumsum([len(t[3][0]) for t in todo])[:-1])
+    for (key, fl, x, _), part in zip(todo, parts):
         # route_emf takes the field once, at route_points of the same samples: the part worked for this route
-        _memo(
-            key,
-            lambda fl=fl, part=part: phys.route_emf(
-                fl, freq_hz, lambda *_: part, closest_m=_closest(fl, src), line_gamma=_gamma(fl, freq_hz, ground)
-            ),
-        )
+        _memo(key, lambda fl=fl, x=x, part=part: phys.route_emf_from(fl, x, part))
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:

@@ -387,10 +387,14 @@ def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gam
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
     :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads.  The
     run and both leads in one call of the field (:func:`route_points`)."""
+    x = route_samples(fl, freq_hz, closest_m, line_gamma)
+    return route_emf_from(fl, x, field(*route_points(fl, x)))
+
+
+def route_emf_from(fl: FeedLine, x, e):
+    """:func:`route_emf` from the field ``e`` (N, 3) already worked at :func:`route_points` of the samples ``x``."""
     b = fl.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
-    x = route_samples(fl, freq_hz, closest_m, line_gamma)
-    e = field(*route_points(fl, x))
     n = len(x)
     emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
     if fl.buried:
