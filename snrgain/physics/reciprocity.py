@@ -17,8 +17,12 @@ LEAD_POINTS = 6
 """Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
 
 STEPS_PER_WAVELENGTH = 60
-"""Steps along a wire or a feed-line run per wavelength, the shorter of free space's and the line's own (a wire on
-or in the soil is a slow, lossy line whose transfer functions turn faster than the incident field)."""
+"""Steps along a wire or a feed-line run per free-space wavelength."""
+STEPS_PER_LINE_WAVELENGTH = 40
+"""Steps per the line's own wavelength 2 pi / |gamma|: a wire on or in the soil is a slow, lossy line whose transfer
+functions turn faster than the incident field.  An overhead wire's line (|gamma| within 1.5 k) leaves the free
+space's step in charge, so its samples, and the points the field is asked at, are the same over every ground of a
+spread (the near field's geometry is then worked once: noisemodels.halfspace)."""
 STEPS_PER_CLOSEST = 12
 """Steps along a wire per closest approach of a source to it (the near field changes on that scale)."""
 LEAST_STEPS = 16
@@ -28,19 +32,20 @@ LEAST_STEPS = 16
 def sample_steps(length_m: float, freq_hz: float, closest_m: float, line_gamma=None, most: int = 40_000) -> int:
     """How many even steps a wire or feed-line run of ``length_m`` takes for the reciprocity integral of a placed
     source's field (Simpson's rule, snrgain.physics.quadrature.samples_rule): a step no longer than a
-    :data:`STEPS_PER_WAVELENGTH`-th of the shorter of free space's wavelength and the line's own (2 pi / |gamma|,
-    ``line_gamma`` [1/m] when given) and a :data:`STEPS_PER_CLOSEST`-th of the source's closest approach
-    ``closest_m`` (its height above or below the wire included), at least :data:`LEAST_STEPS`, at most ``most``.
+    :data:`STEPS_PER_WAVELENGTH`-th of free space's wavelength, a :data:`STEPS_PER_LINE_WAVELENGTH`-th of the line's
+    own (2 pi / |gamma|, ``line_gamma`` [1/m] when given) and a :data:`STEPS_PER_CLOSEST`-th of the source's closest
+    approach ``closest_m`` (its height above or below the wire included), at least :data:`LEAST_STEPS`, at most
+    ``most``.
 
     Chosen by convergence against a fine reference (400 steps per wavelength, 40 per closest approach, 4000 at
-    least) over 120 random wires, runs and sources (1.8-7.1 MHz, five grounds from very dry to sea water, beverages,
-    unterminated wires and BOGs, overhead and buried runs, sources 1-300 m beside and 0-12 m up, both dipoles):
-    the feed currents within 0.0075 dB (wires) and 0.012 dB (runs) at worst, 0.0007 and 0.0004 dB at the 95th
-    percentile; the fixed 400 steps before reached 0.049 and 0.027 dB."""
+    least) over 360 random wires, runs and sources (1.8-7.1 MHz, five grounds from very dry to sea water; beverages,
+    unterminated wires and BOGs; overhead and buried runs; sources 1-300 m beside and 0-12 m up, both dipoles):
+    see :data:`SAMPLES_CHECK`."""
     k = 2 * np.pi * freq_hz / C_M_PER_S
+    step = 2 * np.pi / k / STEPS_PER_WAVELENGTH
     if line_gamma is not None:
-        k = max(k, abs(complex(line_gamma)))
-    step = min(2 * np.pi / k / STEPS_PER_WAVELENGTH, max(closest_m, 0.05) / STEPS_PER_CLOSEST)
+        step = min(step, 2 * np.pi / abs(complex(line_gamma)) / STEPS_PER_LINE_WAVELENGTH)
+    step = min(step, max(closest_m, 0.05) / STEPS_PER_CLOSEST)
     return int(np.clip(np.ceil(length_m / step), LEAST_STEPS, most))
 
 
