@@ -152,3 +152,68 @@ def test_the_near_fields_kept_geometry_gives_the_field_worked_afresh():
                 halfspace.forget_geometry()
                 fresh = nearground.field(F_HZ, rel, conductivity_s_per_m=sig, **kw)
                 np.testing.assert_array_equal(kept, fresh)
+
+
+def test_feed_lines_sky_part_by_route_equals_each_feed_line_integrated():
+    # the integrator takes each distinct route's sky gain into a canonical end once (feedline.sky_rows); each feed
+    # line's part is its route's times |thevenin_scale|^2: the same as integrating every feed line's own gain
+    import snrgain
+    from snrgain.model import feedline, snr
+    from snrgain.model.pipeline import build_sky, resolve_sources, sky_grid
+
+    text = """
+[site]
+name = "Quince Flat (invented)"
+latitude = 44.2
+longitude = -71.3
+ground = "moist loam"
+lot = [[-400, -400], [400, -400], [400, 400], [-400, 400]]
+[band]
+frequency = "1.83 MHz"
+[time]
+months = [1]
+utc_hours = [2, 6]
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = [10, 25]
+[reference]
+family = "vertical"
+height = "20 m"
+position = [0, 0]
+[[noise.local]]
+name = "supply"
+position = [10, 70]
+height = "1 m"
+level = "S9"
+"""
+    for i, r in enumerate((150, 400, 900)):
+        text += f'[[candidate]]\nname = "b{i}"\nfamily = "beverage"\nlength = "200 m"\nheight = "2 m"\n'
+        text += f'bearing = 45\ntermination = "{r} ohm"\nposition = [0, 150]\n'
+        text += 'feed_line = { to = [0, -5], height = "1 m" }\n'
+    sc = resolve_sources(snrgain.load(text))
+    grid = sky_grid(sc)
+    skies = build_sky(sc, grid)
+    ants = list(sc.antennas)
+    shares, powers = placed.pickup(sc, ants)
+    prep = feedline.prepare(sc, ants, powers)
+    assert len(feedline.sky_rows(prep)[0]) == 1  # three feed lines, one route
+    ref_gains = snr.antenna_gains(ants[:1], sc.freq_hz, grid, sc.targets)
+    part = snr.sky_temperatures(feedline.gains(prep, sc, ref_gains), skies, pickup=feedline.no_pickup(prep))
+    temps = snr.sky_temperatures(ref_gains, skies)
+    temps = snr.Temperatures(np.repeat(temps.by_component, len(ants), axis=1), None)
+    _, fl_t = feedline.added(prep, temps, part, skies)
+    caches = [ref_gains.caches[0]]
+    for k in sorted(prep.lines):
+        fl, c = prep.lines[k]
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: phys.sky_gain(fl, c, sc.freq_hz, az, el, prep.ground)))
+    each = snr.sky_temperatures(
+        snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches))),
+        skies,
+        pickup={n: np.zeros(len(caches)) for n in prep.powers},
+    )
+    sky_rows_ = [i for i, name in enumerate(skies.names) if name not in prep.powers]
+    got = fl_t.by_component[sky_rows_][:, sorted(prep.lines)]
+    want = each.by_component[sky_rows_][:, 1:]
+    np.testing.assert_allclose(got, want, rtol=1e-9)
+    assert np.any(want > 0)  # the sky components the feed lines hear (a few are zero at these hours)

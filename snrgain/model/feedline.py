@@ -390,51 +390,81 @@ def shares_with(prep: Prepared | None, shares: dict) -> dict:
 
 def gains(prep: Prepared, sc, reference_gains):
     """The gains the integrator takes the feed lines' sky part through (snrgain.model.snr.Gains): the reference's
-    first (it carries the placed sources, which :func:`shares_with` gives the feed lines instead), then each feed
-    line's "gain" into its antenna's receiver (:func:`snrgain.physics.feedline.sky_gain`), in the order of
-    ``sorted(prep.lines)``; with :func:`no_pickup` as the placed sources' shares."""
+    first (it carries the placed sources, which :func:`shares_with` gives the feed lines instead), then each distinct
+    route's "gain" into a canonical end (:func:`sky_rows`: the feed lines on one route, a termination search's
+    resistors, differ only by a factor, which :func:`added` applies); with :func:`no_pickup` as the placed sources'
+    shares."""
     from snrgain.model import snr
 
     f, ground = sc.freq_hz, prep.ground
     caches = [reference_gains.caches[0]]
-    for k in sorted(prep.lines):
-        fl, c = prep.lines[k]
-        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: sky_gain(fl, c, f, az, el, ground)))
+    for fl, c in sky_rows(prep)[0]:
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: _sky_canonical(fl, c, f, az, el, ground)))
     return snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches)))
 
 
+def sky_rows(prep: Prepared) -> tuple[list, dict]:
+    """([(FeedLine, canonical Coupling) of each distinct route], k -> (its route's row, the factor on its gain)) for
+    the feed lines of ``prep``: the sky's temperature is linear in the gain, and a feed line's gain is its route's
+    into the canonical end (:func:`canonical_coupling`) times |thevenin_scale|^2 (Thevenin's theorem)."""
+    routes: dict = {}
+    rows, of = [], {}
+    for k in sorted(prep.lines):
+        fl, c = prep.lines[k]
+        key = _route_key(fl)
+        if key not in routes:
+            routes[key] = len(rows)
+            rows.append((fl, canonical_coupling(c)))
+        r = routes[key]
+        of[k] = (r, abs(phys.thevenin_scale(rows[r][1], c)) ** 2)
+    return rows, of
+
+
+def canonical_coupling(c: phys.Coupling) -> phys.Coupling:
+    """``c`` with the antenna end shorted (Z_A = 0), a unit divider and a 1 ohm load: the route's own coupling, the
+    same for every antenna end on it (what :func:`snrgain.physics.feedline.thevenin_scale` scales from)."""
+    from dataclasses import replace
+
+    return replace(c, z_end=0j, divider=1.0 + 0j, load_ohm=1.0)
+
+
 def sky_gain(fl: phys.FeedLine, c: phys.Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
-    """:func:`snrgain.physics.feedline.sky_gain`, its responses memoised by route, ground and directions and scaled
-    to each coupling by Thevenin's theorem (:func:`snrgain.physics.feedline.thevenin_scale`): a termination search,
-    a choke or another antenna end on the same route costs one scaling of the pattern, not its evaluation."""
+    """:func:`snrgain.physics.feedline.sky_gain`, its route's response into the canonical end memoised by route,
+    ground and directions and scaled to each coupling by Thevenin's theorem
+    (:func:`snrgain.physics.feedline.thevenin_scale`): a termination search, a choke or another antenna end on the
+    same route costs one scaling of the pattern, not its evaluation."""
+    unit = canonical_coupling(c)
+    g_unit = _sky_canonical(fl, unit, freq_hz, azimuth_rad, elevation_rad, ground)
+    return abs(phys.thevenin_scale(unit, c)) ** 2 * g_unit
+
+
+def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
+    """:func:`snrgain.physics.feedline.sky_gain` of a route into its canonical end ``unit``
+    (:func:`canonical_coupling`), kept by route, ground and directions."""
     az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
     g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
-    route = (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m)
-    key = ("sky", route, fl.station_ground_ohm, float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
-
-    def make():
-        unit = phys.unit_coupling(c)
-        return unit, phys.sky_gain(fl, unit, freq_hz, az, el, ground)
-
-    unit, g_unit = _memo(key, make)
-    return abs(phys.thevenin_scale(unit, c)) ** 2 * g_unit
+    key = ("sky", _route_key(fl), float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    return _memo(key, lambda: phys.sky_gain(fl, unit, freq_hz, az, el, ground))
 
 
 def no_pickup(prep: Prepared) -> dict:
     """Placed sources' shares for :func:`gains`: none (the feed lines take theirs through :func:`shares_with`)."""
-    return {n: np.zeros(len(prep.lines) + 1) for n in prep.powers}
+    n = len(sky_rows(prep)[0])
+    return {name: np.zeros(n + 1) for name in prep.powers}
 
 
 def added(prep: Prepared | None, temps, part, skies):
     """(the antennas' temperatures with the feed lines' sky part added, FeedLineTemps or None).  ``temps`` come from
     the integrator with :func:`shares_with`'s shares (placed sources already hold the feed lines); ``part`` is the
-    integrator's product of :func:`gains` (components, 1 + feed lines, months, hours)."""
+    integrator's product of :func:`gains` (components, 1 + distinct routes, months, hours), each feed line's part its
+    route's times its factor (:func:`sky_rows`)."""
     from snrgain.model import snr
 
     if prep is None:
         return temps, None
     by = np.zeros_like(temps.by_component)
-    by[:, sorted(prep.lines)] = part.by_component[:, 1:]
+    for k, (r, scale) in sky_rows(prep)[1].items():
+        by[:, k] = scale * part.by_component[:, 1 + r]
     sky, effect = by.copy(), by.copy()
     for name in prep.powers:  # the placed rows: the reference's temperature times P_fl / P_ref
         r = skies.names.index(name)

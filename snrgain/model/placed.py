@@ -855,9 +855,9 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
         _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for kind, _ in dipoles(src):
             _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p)
-        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
