@@ -253,6 +253,7 @@ def test_a_routes_emfs_are_the_field_along_it_worked_anew():
                 lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"),
                 closest_m=feedline._closest(fl, src),
                 line_gamma=fl.line(F, GROUND).gamma,
+                closest_at_m=feedline._closest_at(fl, src),
             )
             worked.append((x, emf, lead))
         for batch in (False, True):

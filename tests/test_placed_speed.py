@@ -54,13 +54,36 @@ def test_samples_along_a_wire_against_ten_times_as_many(family, spec, pos, heigh
 
 
 def test_sample_steps_follow_the_wavelength_the_line_and_the_closest_approach():
+    from snrgain.physics import reciprocity as rc
+
     lam = 299_792_458.0 / F_HZ
-    assert sample_steps(200.0, F_HZ, 1000.0) == int(np.ceil(200.0 / (lam / 60)))  # free space's wavelength
-    assert sample_steps(200.0, F_HZ, 5.0) == int(np.ceil(200.0 / (5.0 / 12)))  # a source 5 m from the wire
+    per_lam, per_line, per_c = rc.STEPS_PER_WAVELENGTH, rc.STEPS_PER_LINE_WAVELENGTH, rc.STEPS_PER_CLOSEST
+    assert sample_steps(200.0, F_HZ, 1000.0) == int(np.ceil(200.0 / (lam / per_lam)))  # free space's wavelength
+    assert sample_steps(200.0, F_HZ, 5.0) == int(np.ceil(200.0 / (5.0 / per_c)))  # a source 5 m from the wire
     k = 2 * np.pi / lam
     assert sample_steps(200.0, F_HZ, 1000.0, 1.2 * k) == sample_steps(200.0, F_HZ, 1000.0)  # an overhead line
-    assert sample_steps(200.0, F_HZ, 1000.0, 3.0 * k) == int(np.ceil(200.0 / (lam / 3.0 / 40)))  # a slow one
-    assert sample_steps(2.0, F_HZ, 1000.0) == 16  # at least 16
+    assert sample_steps(200.0, F_HZ, 1000.0, 3.0 * k) == int(np.ceil(200.0 / (lam / 3.0 / per_line)))  # a slow one
+    assert sample_steps(2.0, F_HZ, 1000.0) == rc.LEAST_STEPS
+
+
+def test_graded_samples_and_their_rule():
+    # a run graded toward a source 10 m from its middle: Simpson panels, fine near the source, coarse far from it;
+    # the rule integrates what even samples do
+    from snrgain.physics import reciprocity as rc
+
+    x = rc.graded_samples(155.0, F_HZ, 10.0, 80.0)
+    d = np.diff(x)
+    np.testing.assert_allclose(d[0::2], d[1::2], rtol=1e-9)  # pairs of equal steps
+    assert x[0] == 0.0 and x[-1] == 155.0
+    near = np.abs(x[:-1] - 80.0) < 10.0
+    assert d[near].max() <= 10.0 / rc.STEPS_PER_CLOSEST * np.hypot(1, 1) + 1e-9
+    assert len(x) < sample_steps(155.0, F_HZ, 10.0)  # fewer than even steps fine everywhere
+    w = rc.pairs_rule(x)
+    assert w @ np.cos(x / 30.0) == pytest.approx(30.0 * np.sin(155.0 / 30.0), rel=1e-5)  # Simpson: 1.2e-6
+    xe = even_samples(100.0, 50)
+    from snrgain.physics.quadrature import samples_rule
+
+    np.testing.assert_allclose(rc.pairs_rule(xe), samples_rule(xe), rtol=1e-12)
 
 
 def test_a_termination_searchs_resistors_in_one_pass_equal_each_alone():

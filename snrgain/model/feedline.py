@@ -270,7 +270,14 @@ def _route_emf(fl, src, kind, freq_hz, ground):
 
     return _memo(
         key,
-        lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src), line_gamma=_gamma(fl, freq_hz, ground)),
+        lambda: phys.route_emf(
+            fl,
+            freq_hz,
+            field,
+            closest_m=_closest(fl, src),
+            line_gamma=_gamma(fl, freq_hz, ground),
+            closest_at_m=_closest_at(fl, src),
+        ),
     )
 
 
@@ -293,7 +300,7 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
         if key in _MEMO or key in seen:
             continue
         seen.add(key)
-        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground))
+        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
         todo.append((key, fl, x, phys.route_points(fl, x)))
     if len(todo) < 2:
         return
@@ -370,6 +377,14 @@ def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex
     from snrgain.antennas.longwire import port_response
 
     return complex(port_response(freq_hz, np.array([current]), load_ohm=load_ohm, elevation_rad=np.array([0.0]))[0])
+
+
+def _closest_at(fl: phys.FeedLine, src) -> float:
+    """How far along the run [m] its point nearest a source lies (the samples grade from there)."""
+    a, b = np.asarray(fl.start_m), np.asarray(fl.end_m)
+    p = np.asarray(src.position_m, dtype=float)
+    t = np.clip(np.dot(p - a, b - a) / max(np.dot(b - a, b - a), 1e-12), 0.0, 1.0)
+    return float(t * fl.length_m)
 
 
 def _closest(fl: phys.FeedLine, src) -> float:

@@ -8,6 +8,8 @@ which a plane wave gives back exactly the currents: a test).  Used for placed no
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from snrgain.physics.ground import C_M_PER_S
@@ -16,9 +18,9 @@ from snrgain.physics.quadrature import gauss_legendre, samples_rule
 LEAD_POINTS = 6
 """Gauss-Legendre points up a long wire's down-lead for the integral of the vertical field."""
 
-STEPS_PER_WAVELENGTH = 60
+STEPS_PER_WAVELENGTH = 40
 """Steps along a wire or a feed-line run per free-space wavelength."""
-STEPS_PER_LINE_WAVELENGTH = 40
+STEPS_PER_LINE_WAVELENGTH = 27
 """Steps per the line's own wavelength 2 pi / |gamma|: a wire on or in the soil is a slow, lossy line whose transfer
 functions turn faster than the incident field.  An overhead wire's line (|gamma| within 1.5 k) leaves the free
 space's step in charge, so its samples, and the points the field is asked at, are the same over every ground of a
@@ -40,17 +42,70 @@ def sample_steps(length_m: float, freq_hz: float, closest_m: float, line_gamma=N
     Chosen by convergence against a fine reference (400 steps per wavelength, 40 per closest approach, 4000 at
     least) over 360 random wires, runs and sources (1.8-7.1 MHz, five grounds from very dry to sea water; beverages,
     unterminated wires and BOGs; overhead and buried runs; sources 1-300 m beside and 0-12 m up, both dipoles):
-    over land the feed currents within 0.0037 dB (wires) and 0.012 dB (runs) of the reference, where the 400
-    steps at least before reached 0.033 and 0.027 dB; at the 95th percentile within 0.0044 dB everywhere.  Not resolved, by either rule: a horizontal source lying on sea water (0-1 m up), whose
-    field along the wire is what is left of the source and its image cancelling, so the near field's own
-    interpolation error (1e-3 of each term, noisemodels.halfspace) sets the sum: the feed currents there moved by
-    up to 10 dB with the samples (the old rule's 0.5 dB)."""
+    RESULTS."""
     k = 2 * np.pi * freq_hz / C_M_PER_S
     step = 2 * np.pi / k / STEPS_PER_WAVELENGTH
     if line_gamma is not None:
         step = min(step, 2 * np.pi / abs(complex(line_gamma)) / STEPS_PER_LINE_WAVELENGTH)
     step = min(step, max(closest_m, 0.05) / STEPS_PER_CLOSEST)
     return int(np.clip(np.ceil(length_m / step), LEAST_STEPS, most))
+
+
+def graded_samples(
+    length_m: float, freq_hz: float, closest_m: float, at_m: float, line_gamma=None, most: int = 20_000
+) -> np.ndarray:
+    """Samples along a run [m] graded toward its point nearest a source (``at_m`` along it, ``closest_m`` away): pairs
+    of equal steps (Simpson panels, :func:`pairs_rule`), each step no longer than :func:`sample_steps`' free-space
+    and line steps nor a :data:`STEPS_PER_CLOSEST`-th of the distance from the source to the panel's near end (the
+    near field changes on the scale of that distance, not of the closest approach all along the run).  A read-only
+    array (at most ``most`` steps; beyond, the even samples of :func:`sample_steps`)."""
+    return _graded(float(length_m), float(freq_hz), float(closest_m), float(at_m), line_gamma, int(most))
+
+
+@lru_cache(maxsize=256)
+def _graded(length_m, freq_hz, closest_m, at_m, line_gamma, most) -> np.ndarray:
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    far = 2 * np.pi / k / STEPS_PER_WAVELENGTH
+    if line_gamma is not None:
+        far = min(far, 2 * np.pi / abs(complex(line_gamma)) / STEPS_PER_LINE_WAVELENGTH)
+    c = max(closest_m, 0.05)
+    at = min(max(at_m, 0.0), length_m)
+    sides = []
+    for span in (at, length_m - at):  # toward the start, toward the end: panel edges as distances from ``at``
+        edges = [0.0]
+        while edges[-1] < span and len(edges) < most:
+            edges.append(edges[-1] + 2 * min(far, np.hypot(c, edges[-1]) / STEPS_PER_CLOSEST))
+        e = np.array(edges)
+        sides.append(e * (span / e[-1]) if span > 0 else e[:1])  # the last panel's end on the run's end
+    left, right = at - sides[0][::-1], at + sides[1][1:]
+    edges = np.concatenate([left, right])
+    if len(edges) < 2 or 2 * (len(edges) - 1) > most or 2 * (len(edges) - 1) < LEAST_STEPS:
+        x = np.linspace(0.0, length_m, sample_steps(length_m, freq_hz, closest_m, line_gamma, most) // 2 * 2 + 1)
+    else:
+        x = np.empty(2 * len(edges) - 1)
+        x[0::2] = edges
+        x[1::2] = 0.5 * (edges[:-1] + edges[1:])
+        x[0], x[-1] = 0.0, length_m
+    x.flags.writeable = False
+    return x
+
+
+def pairs_rule(x) -> np.ndarray:
+    """Weights of Simpson's rule on panels of two equal steps each (:func:`graded_samples`; an even grid of an even
+    number of steps is one such), else snrgain.physics.quadrature.samples_rule's."""
+    x = np.asarray(x, dtype=float)
+    n = len(x)
+    if n >= 3 and n % 2 == 1:
+        d = np.diff(x)
+        a, b = d[0::2], d[1::2]
+        if np.all(a > 0) and np.all(np.abs(a - b) <= 1e-9 * (a + b)):
+            w = np.zeros(n)
+            h = (a + b) / 6.0  # a panel of width 2h: (h / 3) (1, 4, 1)
+            w[0:-1:2] += h
+            w[1::2] += 4 * h
+            w[2::2] += h
+            return w
+    return samples_rule(x)
 
 
 def lead_rule() -> tuple[np.ndarray, np.ndarray]:
