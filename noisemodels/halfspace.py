@@ -528,8 +528,9 @@ def reflected(freq_hz: float, n2: complex, rho, zeta, kind: str) -> np.ndarray:
     close = np.nonzero(rho < FAR_SHARE_M[1])[0]
     if len(close):
         near = _near_geometry(rho, zeta, close)
-        cf = closed_forms(rho[close], zeta[close], tab.k0, n2, laplace=near[1])[rows]
-        out[np.ix_(rows, close)] += near[0] * cf
+        cf = closed_forms(rho[close], zeta[close], tab.k0, n2, laplace=near[1])
+        for r in rows:
+            out[r, close] += near[0] * cf[r]
     return out
 
 

@@ -59,15 +59,16 @@ def graded_samples(
     and line steps nor a :data:`STEPS_PER_CLOSEST`-th of the distance from the source to the panel's near end (the
     near field changes on the scale of that distance, not of the closest approach all along the run).  A read-only
     array (at most ``most`` steps; beyond, the even samples of :func:`sample_steps`)."""
-    return _graded(float(length_m), float(freq_hz), float(closest_m), float(at_m), line_gamma, int(most))
-
-
-@lru_cache(maxsize=256)
-def _graded(length_m, freq_hz, closest_m, at_m, line_gamma, most) -> np.ndarray:
     k = 2 * np.pi * freq_hz / C_M_PER_S
     far = 2 * np.pi / k / STEPS_PER_WAVELENGTH
+    # an overhead run's line leaves free space's step in charge: the same samples over every ground (kept once)
     if line_gamma is not None:
         far = min(far, 2 * np.pi / abs(complex(line_gamma)) / STEPS_PER_LINE_WAVELENGTH)
+    return _graded(float(length_m), float(far), float(closest_m), float(at_m), int(most))
+
+
+@lru_cache(maxsize=512)
+def _graded(length_m, far, closest_m, at_m, most) -> np.ndarray:
     c = max(closest_m, 0.05)
     at = min(max(at_m, 0.0), length_m)
     sides = []
@@ -80,7 +81,8 @@ def _graded(length_m, freq_hz, closest_m, at_m, line_gamma, most) -> np.ndarray:
     left, right = at - sides[0][::-1], at + sides[1][1:]
     edges = np.concatenate([left, right])
     if len(edges) < 2 or 2 * (len(edges) - 1) > most or 2 * (len(edges) - 1) < LEAST_STEPS:
-        x = np.linspace(0.0, length_m, sample_steps(length_m, freq_hz, closest_m, line_gamma, most) // 2 * 2 + 1)
+        steps = int(np.clip(np.ceil(length_m / min(far, c / STEPS_PER_CLOSEST)), LEAST_STEPS, most))
+        x = np.linspace(0.0, length_m, steps + steps % 2 + 1)  # sample_steps' even samples
     else:
         x = np.empty(2 * len(edges) - 1)
         x[0::2] = edges
