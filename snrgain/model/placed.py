@@ -229,7 +229,13 @@ def _kept_field(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -
     z = np.ascontiguousarray(np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),)))
     if p.size > 2 * FIELD_MEMO_POINTS:
         return field_vector(src, p, z, freq_hz, ground, kind=kind)
-    key = (
+    key = _field_key(src, p, z, freq_hz, ground, kind)
+    return _FIELDS.get(key, lambda: field_vector(src, p, z, freq_hz, ground, kind=kind))
+
+
+def _field_key(src, p: np.ndarray, z: np.ndarray, freq_hz: float, ground, kind: str) -> tuple:
+    """:data:`_FIELDS`' key of a source's field at points ``p`` (N, 2) and heights ``z`` (N,), both contiguous."""
+    return (
         field_vector,  # the function itself (a test may put another in its place)
         _source_key(src, kind),
         float(dict(dipoles(src)).get(kind, 0.0)),
@@ -238,7 +244,6 @@ def _kept_field(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -
         p.tobytes(),
         z.tobytes(),
     )
-    return _FIELDS.get(key, lambda: field_vector(src, p, z, freq_hz, ground, kind=kind))
 
 
 _FIELDS = Memo(64)
@@ -375,19 +380,50 @@ def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind
             continue
         seen.add(key)
         todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u)))
-    if len(todo) < 2:
+    compact = _compact_points(antennas, src, freq_hz, reference_m, ground, kind, p, seen)
+    if len(todo) + len(compact) < 2:
         return
+    pts = [t[5] for t in todo] + [(q, z) for _, q, z in compact]
     e = field_vector(
-        src,
-        np.concatenate([t[5][0] for t in todo]),
-        np.concatenate([t[5][1] for t in todo]),
-        freq_hz,
-        ground,
-        kind=kind,
+        src, np.concatenate([q for q, _ in pts]), np.concatenate([z for _, z in pts]), freq_hz, ground, kind=kind
     )
-    parts = np.split(e, np.cumsum([len(t[5][0]) for t in todo])[:-1])
+    parts = np.split(e, np.cumsum([len(q) for q, _ in pts])[:-1])
+    from snrgain.antennas.longwire import port_response
+
+    el = np.array([src.elevation_rad])
     for (key, a, feeds, x, u, _), part in zip(todo, parts):
-        _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
+        emf, lead = _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
+        # and its amplitudes, as received_amplitudes works them out for the wire standing alone (one call less each)
+        i_f = complex(_through_line(a, freq_hz, x, emf, lead)[0])
+        amp = port_response(freq_hz, np.array([i_f]), load_ohm=a.receiver_load_ohm(freq_hz), elevation_rad=el)
+        held = _amplitudes_key(a, src, freq_hz, reference_m, ground, None, kind)
+        _AMPLITUDES.get(held, lambda a=a, amp=amp: (a, (complex(amp[0]), 0j)))
+    for (key, _, _), part in zip(compact, parts[len(todo) :]):
+        _FIELDS.get(key, lambda part=part: part)
+
+
+def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, seen: set) -> list:
+    """[(:func:`_kept_field`'s key, points, heights)] of the segments of every compact antenna of ``antennas`` read
+    through its transmit currents whose power is not known and whose field there is not held: worked in
+    :func:`_prefetch_wire_emfs`' one call of the field with the wires'."""
+    out = []
+    for k, a in enumerate(antennas):
+        if np.isfinite(p[k]) or a.integrates_near_sources or a.composite or not has_place(a):
+            continue
+        segments = transmit_segments(a, freq_hz)
+        if segments is None:
+            continue
+        pts = np.asarray(segments[0], dtype=float)
+        q = np.ascontiguousarray(antenna_point(a, reference_m)[None, :] + pts[:, :2])
+        z = np.ascontiguousarray(pts[:, 2])
+        if q.size > 2 * FIELD_MEMO_POINTS:
+            continue
+        key = _field_key(src, q, z, freq_hz, ground, kind)
+        if key in _FIELDS or key in seen:
+            continue
+        seen.add(key)
+        out.append((key, q, z))
+    return out
 
 
 def _source_key(src, kind: str) -> tuple:
