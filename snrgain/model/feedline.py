@@ -209,15 +209,8 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
     f = sc.freq_hz
     ref_m = antennas[0].params.position or (0.0, 0.0)
     out = {}
-    for k, a in enumerate(antennas):
-        fl = feeds.get(a.name)
-        if fl is None or k == 0:
-            continue
-        start = feed_point(a, ref_m)
-        if fl.start_m != start:
-            from dataclasses import replace
-
-            fl = replace(fl, start_m=start)
+    for k, fl in _routes(sc, antennas).items():
+        a = antennas[k]
         end, _, _ = antenna_end(a, f, ground)
         out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
     fl_powers, effects = {}, {}
@@ -288,6 +281,51 @@ def _gamma(fl, freq_hz, ground) -> complex:
 
 def _route_emf_key(fl, src, kind, freq_hz, ground) -> tuple:
     return ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+
+
+def _routes(sc, antennas) -> dict:
+    """k -> the FeedLine of each candidate of ``antennas`` that has one (``sc.feed_lines`` by name), its route starting
+    where the antenna stands (:func:`feed_point`)."""
+    feeds = getattr(sc, "feed_lines", None) or {}
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    out = {}
+    for k, a in enumerate(antennas):
+        fl = feeds.get(a.name)
+        if fl is None or k == 0:
+            continue
+        start = feed_point(a, ref_m)
+        if fl.start_m != start:
+            from dataclasses import replace
+
+            fl = replace(fl, start_m=start)
+        out[k] = fl
+    return out
+
+
+def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
+    """[(points (N, 2), heights (N,), keep(field (N, 3)))] of the feed-line routes of ``antennas`` whose EMFs from a
+    placed source's dipole are not held: snrgain.model.placed.pickup works their field in its one call of the field
+    per source and hands each part to ``keep``, which puts the route's EMFs where :func:`prepare` reads them (one call
+    of the field fewer per source and ground).  Empty when an antenna's route cannot be made here (prepare says
+    why)."""
+    try:
+        routes = list(_routes(sc, antennas).values())
+    except ValueError:
+        return []
+    out, seen = [], set()
+    for fl in routes:
+        key = _route_emf_key(fl, src, kind, freq_hz, ground)
+        if key in _MEMO or key in seen:
+            continue
+        seen.add(key)
+        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
+        q, z = phys.route_points(fl, x)
+
+        def keep(part, key=key, fl=fl, x=x):
+            _memo(key, lambda: phys.route_emf_from(fl, x, part))
+
+        out.append((q, z, keep))
+    return out
 
 
 def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:

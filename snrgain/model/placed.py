@@ -355,12 +355,15 @@ def _emfs_one_call(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.nd
     return _emfs_from(wire, feeds, x, u, e)
 
 
-def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray) -> None:
+def _prefetch_wire_emfs(
+    antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=()
+) -> None:
     """Put in :data:`_EMFS` the EMFs of every long wire of ``antennas`` standing alone at its place whose power is
     not known (NaN in ``p``) and whose EMFs are not held, the source's field at all of them worked in one call of
     :func:`field_vector` (the wires of a run one source at a time: a call's own cost is that of a few hundred
     points).  The keys are those :func:`wire_feed_current` asks for (the same samples); one it would not ask for
-    is only work wasted, never a wrong EMF (the samples are in the key)."""
+    is only work wasted, never a wrong EMF (the samples are in the key).  ``extra``: [(points, heights, keep)] also
+    worked in that call, each part handed to ``keep`` (the feed lines' routes: snrgain.model.feedline)."""
     least = table_min_points()
     todo, seen = [], set()
     for k, a in enumerate(antennas):
@@ -381,9 +384,9 @@ def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind
         seen.add(key)
         todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u)))
     compact = _compact_points(antennas, src, freq_hz, reference_m, ground, kind, p, seen)
-    if len(todo) + len(compact) < 2:
+    if len(todo) + len(compact) + len(extra) < 2:
         return
-    pts = [t[5] for t in todo] + [(q, z) for _, q, z in compact]
+    pts = [t[5] for t in todo] + [(q, z) for _, q, z in compact] + [(q, z) for q, z, _ in extra]
     e = field_vector(
         src, np.concatenate([q for q, _ in pts]), np.concatenate([z for _, z in pts]), freq_hz, ground, kind=kind
     )
@@ -400,6 +403,8 @@ def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind
         _AMPLITUDES.get(held, lambda a=a, amp=amp: (a, (complex(amp[0]), 0j)))
     for (key, _, _), part in zip(compact, parts[len(todo) :]):
         _FIELDS.get(key, lambda part=part: part)
+    for (_, _, keep), part in zip(extra, parts[len(todo) + len(compact) :]):
+        keep(part)
 
 
 def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, seen: set) -> list:
@@ -893,7 +898,10 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for kind, _ in dipoles(src):
-            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p)
+            from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
+
+            routes = feedline.route_points_ahead(sc, antennas, src, kind, sc.freq_hz, ground)
+            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p, extra=routes)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
