@@ -22,6 +22,7 @@ a ``feed-line-ground-assumed`` notice names an antenna whose ground there is snr
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -417,20 +418,23 @@ def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex
     return complex(port_response(freq_hz, np.array([current]), load_ohm=load_ohm, elevation_rad=np.array([0.0]))[0])
 
 
+def _nearest(fl: phys.FeedLine, src) -> tuple[float, float]:
+    """(the fraction along the run of its point nearest a source's foot, the plan distance between them [m])."""
+    (ax, ay), (bx, by) = fl.start_m, fl.end_m
+    px, py = float(src.position_m[0]), float(src.position_m[1])
+    dx, dy = bx - ax, by - ay
+    t = min(max(((px - ax) * dx + (py - ay) * dy) / max(dx * dx + dy * dy, 1e-12), 0.0), 1.0)
+    return t, math.hypot(px - (ax + t * dx), py - (ay + t * dy))
+
+
 def _closest_at(fl: phys.FeedLine, src) -> float:
     """How far along the run [m] its point nearest a source lies (the samples grade from there)."""
-    a, b = np.asarray(fl.start_m), np.asarray(fl.end_m)
-    p = np.asarray(src.position_m, dtype=float)
-    t = np.clip(np.dot(p - a, b - a) / max(np.dot(b - a, b - a), 1e-12), 0.0, 1.0)
-    return float(t * fl.length_m)
+    return float(_nearest(fl, src)[0] * fl.length_m)
 
 
 def _closest(fl: phys.FeedLine, src) -> float:
     """The closest approach of a source to the run [m], its height included."""
-    a, b = np.asarray(fl.start_m), np.asarray(fl.end_m)
-    p = np.asarray(src.position_m, dtype=float)
-    t = np.clip(np.dot(p - a, b - a) / max(np.dot(b - a, b - a), 1e-12), 0.0, 1.0)
-    return float(np.hypot(np.linalg.norm(p - (a + t * (b - a))), src.height_m - fl.wire_height_m))
+    return float(math.hypot(_nearest(fl, src)[1], src.height_m - fl.wire_height_m))
 
 
 def shares_with(prep: Prepared | None, shares: dict) -> dict:

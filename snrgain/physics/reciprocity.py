@@ -12,6 +12,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.quadrature import gauss_legendre, samples_rule
 
@@ -152,17 +153,36 @@ def through_line(wire, freq_hz, x, emf, lead) -> np.ndarray:
     g, z0 = ln.gamma, ln.z0
     z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
     z_far = wire.far_load_ohm(freq_hz)
-    if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
-        transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
-    else:
-        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
-        transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
-    current = (emf * transfer[None, :]) @ samples_rule(x)
+    transfer, weights = _transfer(x, complex(g), complex(z0), float(L), complex(z_feed), z_far)
+    current = (emf * transfer[None, :]) @ weights
     if lead is not None:
         current = current + lead[:n] * transfer[0]  # up the feed lead
         if z_far is not None:
             current = current - lead[n:] * transfer[-1]  # down the far lead
     return current
+
+
+_TRANSFERS = Memo(256)
+"""The line's transfer function and the rule's weights at a wire's samples (:func:`_transfer`)."""
+
+
+def _transfer(x, g: complex, z0: complex, L: float, z_feed: complex, z_far) -> tuple[np.ndarray, np.ndarray]:
+    """(the line's transfer function to the feed at the samples ``x``, the samples' rule weights), kept by the line,
+    loads and samples (every placed source heard on one wire at one ground takes the same, unless close in)."""
+    x = np.asarray(x, dtype=float)
+
+    def make():
+        if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
+            transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
+        else:
+            d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
+            transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
+        weights = samples_rule(x)
+        transfer.flags.writeable = False
+        weights.flags.writeable = False
+        return transfer, weights
+
+    return _TRANSFERS.get((g, z0, L, z_feed, None if z_far is None else complex(z_far), x.tobytes()), make)
 
 
 def through_lines(wires, freq_hz, x, emf, lead) -> np.ndarray:
