@@ -369,7 +369,14 @@ def _prefetch_wire_emfs(
     for k, a in enumerate(antennas):
         if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
             continue
-        feeds = np.atleast_2d(np.asarray(antenna_point(a, reference_m), dtype=float))
+        point = antenna_point(a, reference_m)
+        # a termination search's resistors: one wire's EMFs (the loads do not enter them)
+        geometry = (type(a), float(point[0]), float(point[1]), float(a.bearing_rad), float(a.length_m))
+        geometry += (float(a.wire_height_m()), bool(a.has_leads), complex(a.line(freq_hz).gamma))
+        if geometry in seen:
+            continue
+        seen.add(geometry)
+        feeds = np.atleast_2d(np.asarray(point, dtype=float))
         b = a.bearing_rad
         u = np.array([np.sin(b), np.cos(b)])
         to_src = np.asarray(src.position_m)[None, :] - feeds
@@ -896,12 +903,12 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
         _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
-        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for kind, _ in dipoles(src):
             from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
 
             routes = feedline.route_points_ahead(sc, antennas, src, kind, sc.freq_hz, ground)
             _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p, extra=routes)
+        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
