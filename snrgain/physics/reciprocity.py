@@ -46,12 +46,12 @@ def sample_steps(length_m: float, freq_hz: float, closest_m: float, line_gamma=N
     Chosen by convergence against a fine reference (400 steps per wavelength, 40 per closest approach, 4000 at
     least) over 360 random wires, runs and sources (1.8-7.1 MHz, five grounds from very dry to sea water; beverages,
     unterminated wires and BOGs; overhead and buried runs; sources 1-300 m beside and 0-12 m up, both dipoles):
-    over land the feed currents within 0.004 dB of the reference on wires and 0.013 dB on runs (graded samples,
+    over land the feed currents within 0.001 dB of the reference on wires and 0.002 dB on runs (graded samples,
     :func:`graded_samples`), where the 400 and 200 steps at least before reached 0.033 and 0.027 dB; at the 95th
-    percentile within 0.006 and 0.010 dB over every ground.  Not resolved, by this rule or the old one: a horizontal
-    source lying on sea water (0-1 m up), whose field along the wire is what is left of the source and its image
+    percentile within 0.003 dB over every ground.  Not resolved, by this rule or the old one: a horizontal source
+    lying on sea water (0-1 m up), whose field along the wire is what is left of the source and its image
     cancelling, so the near field's own interpolation error (1e-3 of each term, noisemodels.halfspace) sets the
-    sum: there the feed currents moved by up to 12 dB (runs 0.9 dB) with the samples, the old rule's by 0.5 dB."""
+    sum: there the feed currents moved by up to 10 dB (runs 0.5 dB) with the samples, the old rule's by 0.5 dB."""
     k = 2 * np.pi * freq_hz / C_M_PER_S
     step = 2 * np.pi / k / STEPS_PER_WAVELENGTH
     if line_gamma is not None:
