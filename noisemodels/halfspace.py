@@ -412,12 +412,20 @@ class _Table:
         g = _geometry(self.k0, len(self.s), len(self.zeta), rho, zeta)
         if g[0] == "heights":
             _, j0, wz, at, wr, phase = g
-            cols = self.values[:, :, j0[:, None] + np.arange(4)[None, :]]  # (rows, rho nodes, heights, 4)
-            at_h = np.einsum("rsuk,uk->rsu", cols, wz).reshape(len(self.rows), -1)
-            return np.einsum("rnk,nk->rn", at_h[:, at], wr) * phase
+            at_h = _weighted(lambda k: self.values[:, :, j0 + k], wz)  # (rows, rho nodes, heights)
+            return _weighted(lambda k: at_h.reshape(len(self.rows), -1)[:, at[:, k]], wr) * phase
         _, at, w, phase = g
         flat = self.values.reshape(len(self.rows), -1)
-        return np.einsum("rnk,nk->rn", flat[:, at], w) * phase
+        return _weighted(lambda k: flat[:, at[:, k]], w) * phase
+
+
+def _weighted(term, w: np.ndarray) -> np.ndarray:
+    """sum_k term(k) w[:, k]: the interpolation's weighted sum, one gathered term at a time (einsum over a last axis
+    of 4 or 16 was 4x slower)."""
+    out = term(0) * w[:, 0]
+    for k in range(1, w.shape[1]):
+        out += term(k) * w[:, k]
+    return out
 
 
 _GEOMETRY: OrderedDict = OrderedDict()
