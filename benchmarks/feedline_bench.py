@@ -113,12 +113,15 @@ def scenario(*, sources: bool, feed_lines: bool, compact: bool) -> str:
 
 
 def clear_memos(cold: bool = False) -> None:
-    """Empty every store of results kept within a run (snrgain.memo.forget): a timed run pays for its own fields and
-    feed lines as a fresh ``rank`` would; the sky maps' disk cache stays warm.  ``cold``: the near field's tables too
+    """Empty every store of results kept within a run (snrgain.memo.forget, and the near field's interpolation
+    geometry, noisemodels.halfspace.forget_geometry): a timed run pays for its own fields and feed lines as a fresh
+    ``rank`` would; the sky maps' disk cache stays warm.  ``cold``: the near field's tables too
     (:data:`TABLES`)."""
+    from noisemodels.halfspace import forget_geometry
     from snrgain.memo import forget
 
     forget()
+    forget_geometry()
     if cold:
         TABLES.clear()
         TABLES_BUILT.clear()

@@ -203,9 +203,10 @@ def _te_image_depth(k0: float, n2: complex) -> complex | None:
     return 2 / (1j * k1)
 
 
-def closed_forms(rho, zeta, k0: float, n2: complex) -> np.ndarray:
-    """(7, N): the integrals of the subtracted parts (B + zeta C) exp(-lambda zeta) times each row's Bessel factor."""
-    g = _laplace(rho, zeta)
+def closed_forms(rho, zeta, k0: float, n2: complex, *, laplace=None) -> np.ndarray:
+    """(7, N): the integrals of the subtracted parts (B + zeta C) exp(-lambda zeta) times each row's Bessel factor
+    (``laplace``: :func:`_laplace` of the same points, when already worked)."""
+    g = _laplace(rho, zeta) if laplace is None else laplace
     zeta = np.asarray(zeta, dtype=float)
     d_te = _te_image_depth(k0, n2)
     if d_te is None:
@@ -403,17 +404,75 @@ class _Table:
         skycache.store("halfspace", key, self.values)
 
     def remainder(self, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
-        """(len(rows), N) interpolated remainders."""
-        i0, ti = _stencil(np.arcsinh(rho / RHO_SCALE_M) / S_STEP, len(self.s))
-        j0, tj = _stencil(zeta / ZETA_STEP_M, len(self.zeta))
-        nz = len(self.zeta)
+        """(len(rows), N) interpolated remainders.  Points at a few heights (a wire's or a feed line's run and the
+        Gauss-Legendre points up their leads) take the table interpolated along zeta once per height, then a cubic
+        in rho alone: the same tensor-product polynomial, summed in another order.  What depends on the points alone
+        (stencils, weights, the phase) is kept for the next table asked at the same points (:func:`_geometry`: the
+        same wires under each ground of a spread)."""
+        g = _geometry(self.k0, len(self.s), len(self.zeta), rho, zeta)
+        if g[0] == "heights":
+            _, j0, wz, at, wr, phase = g
+            at_h = _weighted(lambda k: self.values[:, :, j0 + k], wz)  # (rows, rho nodes, heights)
+            return _weighted(lambda k: at_h.reshape(len(self.rows), -1)[:, at[:, k]], wr) * phase
+        _, at, w, phase = g
+        flat = self.values.reshape(len(self.rows), -1)
+        return _weighted(lambda k: flat[:, at[:, k]], w) * phase
+
+
+def _weighted(term, w: np.ndarray) -> np.ndarray:
+    """sum_k term(k) w[:, k]: the interpolation's weighted sum, one gathered term at a time (einsum over a last axis
+    of 4 or 16 was 4x slower)."""
+    out = term(0) * w[:, 0]
+    for k in range(1, w.shape[1]):
+        out += term(k) * w[:, k]
+    return out
+
+
+_GEOMETRY: OrderedDict = OrderedDict()
+_GEOMETRY_KEPT = 48
+GEOMETRY_MAX_POINTS = 20_000
+"""Requests of more points (a layout's many places) have their geometry worked afresh, not kept."""
+
+
+def forget_geometry() -> None:
+    """Empty the kept geometries (:func:`_geometry`, :func:`_near_geometry`): what a benchmark's timed run clears
+    with snrgain's in-run memos (the tables themselves stay: they are kept across runs, on disk too)."""
+    _GEOMETRY.clear()
+    _NEAR.clear()
+
+
+def _geometry(k0: float, ns: int, nz: int, rho: np.ndarray, zeta: np.ndarray) -> tuple:
+    """The interpolation's geometry of the points (rho, zeta) on a table of ``ns`` x ``nz`` nodes: ("heights",
+    per-height zeta stencils and weights, per-point indices into the table interpolated to those heights, rho
+    weights, phase) when the points stand at a few heights, else ("points", indices, tensor weights, phase); kept
+    by the points' values (the last few)."""
+    small = rho.size <= GEOMETRY_MAX_POINTS
+    if small:
+        key = (float(k0), ns, nz, rho.tobytes(), zeta.tobytes())
+        held = _GEOMETRY.get(key)
+        if held is not None:
+            _GEOMETRY.move_to_end(key)
+            return held
+    r = np.hypot(rho, zeta)
+    phase = np.exp(-1j * k0 * r) / np.maximum(r, 1.0)
+    i0, ti = _stencil(np.arcsinh(rho / RHO_SCALE_M) / S_STEP, ns)
+    heights, which = np.unique(zeta, return_inverse=True)
+    if len(heights) * ns <= 2 * len(zeta):
+        j0, tj = _stencil(heights / ZETA_STEP_M, nz)
+        wz = np.stack(_lagrange(tj), axis=1)  # (heights, 4)
+        at = (i0[:, None] + np.arange(4)[None, :]) * len(heights) + which.reshape(-1)[:, None]
+        out = ("heights", j0, wz, at, np.stack(_lagrange(ti), axis=1), phase)
+    else:
+        j0, tj = _stencil(zeta / ZETA_STEP_M, nz)
         offsets = (np.arange(4)[:, None] * nz + np.arange(4)[None, :]).ravel()
         at = (i0 * nz + j0)[:, None] + offsets[None, :]
         w = (np.stack(_lagrange(ti), axis=1)[:, :, None] * np.stack(_lagrange(tj), axis=1)[:, None, :]).reshape(-1, 16)
-        flat = self.values.reshape(len(self.rows), -1)
-        acc = np.einsum("rnk,nk->rn", flat[:, at], w)
-        r = np.hypot(rho, zeta)
-        return acc * (np.exp(-1j * self.k0 * r) / np.maximum(r, 1.0))
+        out = ("points", at, w, phase)
+    if small:
+        _GEOMETRY[key] = out
+        while len(_GEOMETRY) > _GEOMETRY_KEPT:
+            _GEOMETRY.popitem(last=False)
+    return out
 
 
 FAR_SHARE_M = (30.0, 100.0)
@@ -474,10 +533,33 @@ def reflected(freq_hz: float, n2: complex, rho, zeta, kind: str) -> np.ndarray:
     tab = table(freq_hz, n2, kind, float(rho.max()), float(zeta.max()))
     rows = list(tab.rows)
     out[rows] = tab.remainder(rho, zeta)
-    close = rho < FAR_SHARE_M[1]
-    if np.any(close):
-        cf = closed_forms(rho[close], zeta[close], tab.k0, n2)[rows]
-        out[np.ix_(rows, np.nonzero(close)[0])] += (1 - _far_share(rho[close])) * cf
+    close = np.nonzero(rho < FAR_SHARE_M[1])[0]
+    if len(close):
+        near = _near_geometry(rho, zeta, close)
+        cf = closed_forms(rho[close], zeta[close], tab.k0, n2, laplace=near[1])
+        for r in rows:
+            out[r, close] += near[0] * cf[r]
+    return out
+
+
+_NEAR: OrderedDict = OrderedDict()
+
+
+def _near_geometry(rho: np.ndarray, zeta: np.ndarray, close: np.ndarray) -> tuple:
+    """(1 - the far share, the Laplace transforms of :func:`_laplace`) at the points ``close`` of (rho, zeta), kept
+    by the points' values as :func:`_geometry` keeps its own."""
+    small = rho.size <= GEOMETRY_MAX_POINTS
+    if small:
+        key = (rho.tobytes(), zeta.tobytes())
+        held = _NEAR.get(key)
+        if held is not None:
+            _NEAR.move_to_end(key)
+            return held
+    out = (1 - _far_share(rho[close]), _laplace(rho[close], zeta[close]))
+    if small:
+        _NEAR[key] = out
+        while len(_NEAR) > _GEOMETRY_KEPT:
+            _NEAR.popitem(last=False)
     return out
 
 

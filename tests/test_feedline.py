@@ -212,7 +212,7 @@ def test_a_long_wires_own_amplitude_is_placed_reading_to_the_bit():
         to_src = np.asarray(src.position_m) - np.zeros(2)
         u = np.array([np.sin(b), np.cos(b)])
         closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, bev.length_m) * u)))
-        x = placed.wire_samples(bev.length_m, F, float(np.hypot(closest, src.height_m)))
+        x = placed.wire_grid(bev, src, F, closest)
         i_f = wire_currents_in_field(
             bev, F, np.zeros((1, 2)), x, lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical")
         )
@@ -252,6 +252,8 @@ def test_a_routes_emfs_are_the_field_along_it_worked_anew():
                 F,
                 lambda p, h, s=src: placed.field_vector(s, p, h, F, GROUND, kind="vertical"),
                 closest_m=feedline._closest(fl, src),
+                line_gamma=fl.line(F, GROUND).gamma,
+                closest_at_m=feedline._closest_at(fl, src),
             )
             worked.append((x, emf, lead))
         for batch in (False, True):

@@ -22,6 +22,7 @@ a ``feed-line-ground-assumed`` notice names an antenna whose ground there is snr
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -209,27 +210,23 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
     f = sc.freq_hz
     ref_m = antennas[0].params.position or (0.0, 0.0)
     out = {}
-    for k, a in enumerate(antennas):
-        fl = feeds.get(a.name)
-        if fl is None or k == 0:
-            continue
-        start = feed_point(a, ref_m)
-        if fl.start_m != start:
-            from dataclasses import replace
-
-            fl = replace(fl, start_m=start)
+    for k, fl in _routes(sc, antennas).items():
+        a = antennas[k]
         end, _, _ = antenna_end(a, f, ground)
         out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
     fl_powers, effects = {}, {}
+    ks = list(out)
+    loads = np.array([out[k][1].load_ohm for k in ks])
     for src in (s for s in sc.noise.local if s.position_m is not None):
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for kind, _ in placed.dipoles(src):
             _prefetch_route_emfs([fl for fl, _, _ in out.values()], src, kind, f, ground)
-        for k, (fl, c, coherent) in out.items():
-            for kind, _ in placed.dipoles(src):
-                b = port_amplitude(f, _route_current(fl, c, src, kind, f, ground), c.load_ohm)
+            # every feed line's amplitude in one port response (a termination search's resistors share one route)
+            currents = _route_currents([out[k][:2] for k in ks], src, kind, f, ground)
+            b_all = port_amplitudes(f, currents, loads)
+            for k, b in zip(ks, b_all):
                 p[k] += abs(b) ** 2
-                if coherent:  # one source drives both: their currents in the load add as phasors
+                if out[k][2]:  # coherent: one source drives both, their currents in the load add as phasors
                     # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
                     a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
                     d[k] += abs(a + b) ** 2 - abs(a) ** 2
@@ -265,11 +262,71 @@ def _route_emf(fl, src, kind, freq_hz, ground):
     def field(pts, heights):
         return placed_field(src, pts, heights, freq_hz, ground, kind)
 
-    return _memo(key, lambda: phys.route_emf(fl, freq_hz, field, closest_m=_closest(fl, src)))
+    return _memo(
+        key,
+        lambda: phys.route_emf(
+            fl,
+            freq_hz,
+            field,
+            closest_m=_closest(fl, src),
+            line_gamma=_gamma(fl, freq_hz, ground),
+            closest_at_m=_closest_at(fl, src),
+        ),
+    )
+
+
+def _gamma(fl, freq_hz, ground) -> complex:
+    """The shield's own propagation constant over ``ground`` (its samples resolve the line's wavelength too)."""
+    return fl.line(freq_hz, ground).gamma
 
 
 def _route_emf_key(fl, src, kind, freq_hz, ground) -> tuple:
     return ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+
+
+def _routes(sc, antennas) -> dict:
+    """k -> the FeedLine of each candidate of ``antennas`` that has one (``sc.feed_lines`` by name), its route starting
+    where the antenna stands (:func:`feed_point`)."""
+    feeds = getattr(sc, "feed_lines", None) or {}
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    out = {}
+    for k, a in enumerate(antennas):
+        fl = feeds.get(a.name)
+        if fl is None or k == 0:
+            continue
+        start = feed_point(a, ref_m)
+        if fl.start_m != start:
+            from dataclasses import replace
+
+            fl = replace(fl, start_m=start)
+        out[k] = fl
+    return out
+
+
+def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
+    """[(points (N, 2), heights (N,), keep(field (N, 3)))] of the feed-line routes of ``antennas`` whose EMFs from a
+    placed source's dipole are not held: snrgain.model.placed.pickup works their field in its one call of the field
+    per source and hands each part to ``keep``, which puts the route's EMFs where :func:`prepare` reads them (one call
+    of the field fewer per source and ground).  Empty when an antenna's route cannot be made here (prepare says
+    why)."""
+    try:
+        routes = list(_routes(sc, antennas).values())
+    except ValueError:
+        return []
+    out, seen = [], set()
+    for fl in routes:
+        key = _route_emf_key(fl, src, kind, freq_hz, ground)
+        if key in _MEMO or key in seen:
+            continue
+        seen.add(key)
+        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
+        q, z = phys.route_points(fl, x)
+
+        def keep(part, key=key, fl=fl, x=x):
+            _memo(key, lambda: phys.route_emf_from(fl, x, part))
+
+        out.append((q, z, keep))
+    return out
 
 
 def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
@@ -282,32 +339,67 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
         if key in _MEMO or key in seen:
             continue
         seen.add(key)
-        x = phys.route_samples(fl, freq_hz, _closest(fl, src))
-        todo.append((key, fl, phys.route_points(fl, x)))
+        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
+        todo.append((key, fl, x, phys.route_points(fl, x)))
     if len(todo) < 2:
         return
     e = placed_field(
-        src, np.concatenate([t[2][0] for t in todo]), np.concatenate([t[2][1] for t in todo]), freq_hz, ground, kind
+        src, np.concatenate([t[3][0] for t in todo]), np.concatenate([t[3][1] for t in todo]), freq_hz, ground, kind
     )
-    parts = np.split(e, np.cumsum([len(t[2][0]) for t in todo])[:-1])
-    for (key, fl, _), part in zip(todo, parts):
+    parts = np.split(e, np.cumsum([len(t[3][0]) for t in todo])[:-1])
+    for (key, fl, x, _), part in zip(todo, parts):
         # route_emf takes the field once, at route_points of the same samples: the part worked for this route
-        _memo(key, lambda fl=fl, part=part: phys.route_emf(fl, freq_hz, lambda *_: part, closest_m=_closest(fl, src)))
+        _memo(key, lambda fl=fl, x=x, part=part: phys.route_emf_from(fl, x, part))
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
     """:func:`snrgain.physics.feedline.emf_current` of a placed source's dipole with coupling ``c``: worked once per
     route and source with a unit coupling and scaled to ``c`` by Thevenin's theorem (a termination tried, a choke,
     another antenna end on the same route cost one product; :func:`snrgain.physics.feedline.current_scale`)."""
-    key = ("route-current", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.station_ground_ohm)
-    key = (*key, _source_key(src, kind, freq_hz, ground))
+    unit, current = _route_unit(fl, c, src, kind, freq_hz, ground)
+    return complex(current * phys.current_scale(unit, c))
+
+
+def _route_key(fl) -> tuple:
+    """What a route's current through a unit coupling depends on besides the source: the run, its cable (the
+    shield's line) and the station's ground."""
+    return (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m, fl.station_ground_ohm)
+
+
+def _route_unit(fl, c, src, kind, freq_hz, ground) -> tuple:
+    """(the unit coupling, the current through it) of a route and a placed source's dipole, kept: what
+    :func:`_route_current` scales to each coupling."""
+    key = ("route-current", _route_key(fl), _source_key(src, kind, freq_hz, ground))
 
     def make():
         unit = phys.unit_coupling(c)
         return unit, phys.emf_current(fl, unit, *_route_emf(fl, src, kind, freq_hz, ground))
 
-    unit, current = _memo(key, make)
-    return complex(current * phys.current_scale(unit, c))
+    return _memo(key, make)
+
+
+def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
+    """:func:`_route_current` of each (FeedLine, Coupling) of ``lines_``: (N,), each route's kept current looked up
+    once however many couplings share it (a termination search's resistors)."""
+    units: dict = {}
+    out = np.empty(len(lines_), dtype=complex)
+    for j, (fl, c) in enumerate(lines_):
+        route = _route_key(fl)
+        if route not in units:
+            units[route] = _route_unit(fl, c, src, kind, freq_hz, ground)
+        unit, current = units[route]
+        out[j] = current * phys.current_scale(unit, c)
+    return out
+
+
+def port_amplitudes(freq_hz: float, currents, loads_ohm) -> np.ndarray:
+    """:func:`port_amplitude` of each current [A] (N,) in its load [ohm] (N,)."""
+    from snrgain.antennas.longwire import port_response
+
+    currents = np.asarray(currents, dtype=complex)
+    return port_response(
+        freq_hz, currents, load_ohm=np.asarray(loads_ohm, dtype=float), elevation_rad=np.zeros(len(currents))
+    )
 
 
 def placed_field(src, pts, heights, freq_hz, ground, kind):
@@ -326,12 +418,23 @@ def port_amplitude(freq_hz: float, current: complex, load_ohm: float) -> complex
     return complex(port_response(freq_hz, np.array([current]), load_ohm=load_ohm, elevation_rad=np.array([0.0]))[0])
 
 
+def _nearest(fl: phys.FeedLine, src) -> tuple[float, float]:
+    """(the fraction along the run of its point nearest a source's foot, the plan distance between them [m])."""
+    (ax, ay), (bx, by) = fl.start_m, fl.end_m
+    px, py = float(src.position_m[0]), float(src.position_m[1])
+    dx, dy = bx - ax, by - ay
+    t = min(max(((px - ax) * dx + (py - ay) * dy) / max(dx * dx + dy * dy, 1e-12), 0.0), 1.0)
+    return t, math.hypot(px - (ax + t * dx), py - (ay + t * dy))
+
+
+def _closest_at(fl: phys.FeedLine, src) -> float:
+    """How far along the run [m] its point nearest a source lies (the samples grade from there)."""
+    return float(_nearest(fl, src)[0] * fl.length_m)
+
+
 def _closest(fl: phys.FeedLine, src) -> float:
     """The closest approach of a source to the run [m], its height included."""
-    a, b = np.asarray(fl.start_m), np.asarray(fl.end_m)
-    p = np.asarray(src.position_m, dtype=float)
-    t = np.clip(np.dot(p - a, b - a) / max(np.dot(b - a, b - a), 1e-12), 0.0, 1.0)
-    return float(np.hypot(np.linalg.norm(p - (a + t * (b - a))), src.height_m - fl.wire_height_m))
+    return float(math.hypot(_nearest(fl, src)[1], src.height_m - fl.wire_height_m))
 
 
 def shares_with(prep: Prepared | None, shares: dict) -> dict:
@@ -344,51 +447,81 @@ def shares_with(prep: Prepared | None, shares: dict) -> dict:
 
 def gains(prep: Prepared, sc, reference_gains):
     """The gains the integrator takes the feed lines' sky part through (snrgain.model.snr.Gains): the reference's
-    first (it carries the placed sources, which :func:`shares_with` gives the feed lines instead), then each feed
-    line's "gain" into its antenna's receiver (:func:`snrgain.physics.feedline.sky_gain`), in the order of
-    ``sorted(prep.lines)``; with :func:`no_pickup` as the placed sources' shares."""
+    first (it carries the placed sources, which :func:`shares_with` gives the feed lines instead), then each distinct
+    route's "gain" into a canonical end (:func:`sky_rows`: the feed lines on one route, a termination search's
+    resistors, differ only by a factor, which :func:`added` applies); with :func:`no_pickup` as the placed sources'
+    shares."""
     from snrgain.model import snr
 
     f, ground = sc.freq_hz, prep.ground
     caches = [reference_gains.caches[0]]
-    for k in sorted(prep.lines):
-        fl, c = prep.lines[k]
-        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: sky_gain(fl, c, f, az, el, ground)))
+    for fl, c in sky_rows(prep)[0]:
+        caches.append(snr.GainCache(lambda az, el, fl=fl, c=c: _sky_canonical(fl, c, f, az, el, ground)))
     return snr.Gains(caches, np.zeros((len(caches), 0)), np.zeros(len(caches)))
 
 
+def sky_rows(prep: Prepared) -> tuple[list, dict]:
+    """([(FeedLine, canonical Coupling) of each distinct route], k -> (its route's row, the factor on its gain)) for
+    the feed lines of ``prep``: the sky's temperature is linear in the gain, and a feed line's gain is its route's
+    into the canonical end (:func:`canonical_coupling`) times |thevenin_scale|^2 (Thevenin's theorem)."""
+    routes: dict = {}
+    rows, of = [], {}
+    for k in sorted(prep.lines):
+        fl, c = prep.lines[k]
+        key = _route_key(fl)
+        if key not in routes:
+            routes[key] = len(rows)
+            rows.append((fl, canonical_coupling(c)))
+        r = routes[key]
+        of[k] = (r, abs(phys.thevenin_scale(rows[r][1], c)) ** 2)
+    return rows, of
+
+
+def canonical_coupling(c: phys.Coupling) -> phys.Coupling:
+    """``c`` with the antenna end shorted (Z_A = 0), a unit divider and a 1 ohm load: the route's own coupling, the
+    same for every antenna end on it (what :func:`snrgain.physics.feedline.thevenin_scale` scales from)."""
+    from dataclasses import replace
+
+    return replace(c, z_end=0j, divider=1.0 + 0j, load_ohm=1.0)
+
+
 def sky_gain(fl: phys.FeedLine, c: phys.Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
-    """:func:`snrgain.physics.feedline.sky_gain`, its responses memoised by route, ground and directions and scaled
-    to each coupling by Thevenin's theorem (:func:`snrgain.physics.feedline.thevenin_scale`): a termination search,
-    a choke or another antenna end on the same route costs one scaling of the pattern, not its evaluation."""
+    """:func:`snrgain.physics.feedline.sky_gain`, its route's response into the canonical end memoised by route,
+    ground and directions and scaled to each coupling by Thevenin's theorem
+    (:func:`snrgain.physics.feedline.thevenin_scale`): a termination search, a choke or another antenna end on the
+    same route costs one scaling of the pattern, not its evaluation."""
+    unit = canonical_coupling(c)
+    g_unit = _sky_canonical(fl, unit, freq_hz, azimuth_rad, elevation_rad, ground)
+    return abs(phys.thevenin_scale(unit, c)) ** 2 * g_unit
+
+
+def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
+    """:func:`snrgain.physics.feedline.sky_gain` of a route into its canonical end ``unit``
+    (:func:`canonical_coupling`), kept by route, ground and directions."""
     az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
     g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
-    route = (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m)
-    key = ("sky", route, fl.station_ground_ohm, float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
-
-    def make():
-        unit = phys.unit_coupling(c)
-        return unit, phys.sky_gain(fl, unit, freq_hz, az, el, ground)
-
-    unit, g_unit = _memo(key, make)
-    return abs(phys.thevenin_scale(unit, c)) ** 2 * g_unit
+    key = ("sky", _route_key(fl), float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    return _memo(key, lambda: phys.sky_gain(fl, unit, freq_hz, az, el, ground))
 
 
 def no_pickup(prep: Prepared) -> dict:
     """Placed sources' shares for :func:`gains`: none (the feed lines take theirs through :func:`shares_with`)."""
-    return {n: np.zeros(len(prep.lines) + 1) for n in prep.powers}
+    n = len(sky_rows(prep)[0])
+    return {name: np.zeros(n + 1) for name in prep.powers}
 
 
 def added(prep: Prepared | None, temps, part, skies):
     """(the antennas' temperatures with the feed lines' sky part added, FeedLineTemps or None).  ``temps`` come from
     the integrator with :func:`shares_with`'s shares (placed sources already hold the feed lines); ``part`` is the
-    integrator's product of :func:`gains` (components, 1 + feed lines, months, hours)."""
+    integrator's product of :func:`gains` (components, 1 + distinct routes, months, hours), each feed line's part its
+    route's times its factor (:func:`sky_rows`)."""
     from snrgain.model import snr
 
     if prep is None:
         return temps, None
     by = np.zeros_like(temps.by_component)
-    by[:, sorted(prep.lines)] = part.by_component[:, 1:]
+    for k, (r, scale) in sky_rows(prep)[1].items():
+        by[:, k] = scale * part.by_component[:, 1 + r]
     sky, effect = by.copy(), by.copy()
     for name in prep.powers:  # the placed rows: the reference's temperature times P_fl / P_ref
         r = skies.names.index(name)

@@ -64,7 +64,7 @@ from noisemodels import nearground
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.quadrature import even_samples
-from snrgain.physics.reciprocity import LEAD_POINTS, wire_currents_in_field  # noqa: F401 (the module's API)
+from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps, through_lines, wire_currents_in_field  # noqa: F401 (the module's API)
 from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
 from snrgain.physics.reciprocity import wire_emfs as _emfs
@@ -150,17 +150,19 @@ def antenna_point(antenna, reference_m) -> np.ndarray:
     return np.asarray(reference_m if p is None else p, dtype=float)
 
 
-WIRE_LEAST_SAMPLES = 400
-"""The fewest steps along a wire (:func:`wire_samples`)."""
-
-
-def wire_samples(length_m: float, freq_hz: float, closest_m: float) -> np.ndarray:
-    """Sample distances along a wire [m]: finer than a 40th of a wavelength and a quarter of the closest
-    approach to the source, at least 400 steps, at most 40,000, an even number of them (Simpson's rule,
+def wire_samples(length_m: float, freq_hz: float, closest_m: float, line_gamma=None) -> np.ndarray:
+    """Sample distances along a wire [m]: even steps as many as :func:`snrgain.physics.reciprocity.sample_steps`
+    gives (finer than a 60th of the shorter of free space's wavelength and the line's own, ``line_gamma``, and a
+    12th of the closest approach to the source), an even number of them (Simpson's rule,
     snrgain.physics.quadrature.samples_rule).  A read-only array, shared by the calls that ask for the same."""
-    lam = C_M_PER_S / freq_hz
-    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    return even_samples(length_m, int(np.clip(np.ceil(length_m / step), WIRE_LEAST_SAMPLES, 40_000)))
+    return even_samples(length_m, sample_steps(length_m, freq_hz, closest_m, line_gamma))
+
+
+def wire_grid(wire, src, freq_hz: float, closest_m: float) -> np.ndarray:
+    """:func:`wire_samples` of a long wire whose closest approach to a placed source is ``closest_m`` in the plan:
+    the source's height above or below the wire and the wire's own line counted."""
+    closest = float(np.hypot(closest_m, src.height_m - wire.wire_height_m()))
+    return wire_samples(wire.length_m, freq_hz, closest, wire.line(freq_hz).gamma)
 
 
 def wire_feed_current(wire, src, freq_hz: float, feed_m, ground, *, x_m=None, kind=None) -> complex:
@@ -186,7 +188,7 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, 
         closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
         grids = {}
         for k, c in enumerate(closest):
-            x = wire_samples(L, freq_hz, float(np.hypot(c, src.height_m)))
+            x = wire_grid(wire, src, freq_hz, float(c))
             grids.setdefault(len(x), (x, []))[1].append(k)
     out = np.zeros(len(feeds), dtype=complex)
     for x, which in grids.values():
@@ -227,7 +229,13 @@ def _kept_field(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -
     z = np.ascontiguousarray(np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),)))
     if p.size > 2 * FIELD_MEMO_POINTS:
         return field_vector(src, p, z, freq_hz, ground, kind=kind)
-    key = (
+    key = _field_key(src, p, z, freq_hz, ground, kind)
+    return _FIELDS.get(key, lambda: field_vector(src, p, z, freq_hz, ground, kind=kind))
+
+
+def _field_key(src, p: np.ndarray, z: np.ndarray, freq_hz: float, ground, kind: str) -> tuple:
+    """:data:`_FIELDS`' key of a source's field at points ``p`` (N, 2) and heights ``z`` (N,), both contiguous."""
+    return (
         field_vector,  # the function itself (a test may put another in its place)
         _source_key(src, kind),
         float(dict(dipoles(src)).get(kind, 0.0)),
@@ -236,7 +244,6 @@ def _kept_field(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -
         p.tobytes(),
         z.tobytes(),
     )
-    return _FIELDS.get(key, lambda: field_vector(src, p, z, freq_hz, ground, kind=kind))
 
 
 _FIELDS = Memo(64)
@@ -348,24 +355,34 @@ def _emfs_one_call(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.nd
     return _emfs_from(wire, feeds, x, u, e)
 
 
-def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray) -> None:
+def _prefetch_wire_emfs(
+    antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=()
+) -> None:
     """Put in :data:`_EMFS` the EMFs of every long wire of ``antennas`` standing alone at its place whose power is
     not known (NaN in ``p``) and whose EMFs are not held, the source's field at all of them worked in one call of
     :func:`field_vector` (the wires of a run one source at a time: a call's own cost is that of a few hundred
     points).  The keys are those :func:`wire_feed_current` asks for (the same samples); one it would not ask for
-    is only work wasted, never a wrong EMF (the samples are in the key)."""
+    is only work wasted, never a wrong EMF (the samples are in the key).  ``extra``: [(points, heights, keep)] also
+    worked in that call, each part handed to ``keep`` (the feed lines' routes: snrgain.model.feedline)."""
     least = table_min_points()
     todo, seen = [], set()
     for k, a in enumerate(antennas):
         if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
             continue
-        feeds = np.atleast_2d(np.asarray(antenna_point(a, reference_m), dtype=float))
+        point = antenna_point(a, reference_m)
+        # a termination search's resistors: one wire's EMFs (the loads do not enter them)
+        geometry = (type(a), float(point[0]), float(point[1]), float(a.bearing_rad), float(a.length_m))
+        geometry += (float(a.wire_height_m()), bool(a.has_leads), complex(a.line(freq_hz).gamma))
+        if geometry in seen:
+            continue
+        seen.add(geometry)
+        feeds = np.atleast_2d(np.asarray(point, dtype=float))
         b = a.bearing_rad
         u = np.array([np.sin(b), np.cos(b)])
         to_src = np.asarray(src.position_m)[None, :] - feeds
         along = np.clip(to_src @ u, 0.0, a.length_m)
         closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
-        x = wire_samples(a.length_m, freq_hz, float(np.hypot(closest[0], src.height_m)))
+        x = wire_grid(a, src, freq_hz, float(closest[0]))
         if len(x) >= least:
             continue
         key = _emfs_key(a, src, freq_hz, feeds, ground, x, u, kind, False, least)
@@ -373,19 +390,52 @@ def _prefetch_wire_emfs(antennas, src, freq_hz: float, reference_m, ground, kind
             continue
         seen.add(key)
         todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u)))
-    if len(todo) < 2:
+    compact = _compact_points(antennas, src, freq_hz, reference_m, ground, kind, p, seen)
+    if len(todo) + len(compact) + len(extra) < 2:
         return
+    pts = [t[5] for t in todo] + [(q, z) for _, q, z in compact] + [(q, z) for q, z, _ in extra]
     e = field_vector(
-        src,
-        np.concatenate([t[5][0] for t in todo]),
-        np.concatenate([t[5][1] for t in todo]),
-        freq_hz,
-        ground,
-        kind=kind,
+        src, np.concatenate([q for q, _ in pts]), np.concatenate([z for _, z in pts]), freq_hz, ground, kind=kind
     )
-    parts = np.split(e, np.cumsum([len(t[5][0]) for t in todo])[:-1])
+    parts = np.split(e, np.cumsum([len(q) for q, _ in pts])[:-1])
+    from snrgain.antennas.longwire import port_response
+
+    el = np.array([src.elevation_rad])
     for (key, a, feeds, x, u, _), part in zip(todo, parts):
-        _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
+        emf, lead = _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
+        # and its amplitudes, as received_amplitudes works them out for the wire standing alone (one call less each)
+        i_f = complex(_through_line(a, freq_hz, x, emf, lead)[0])
+        amp = port_response(freq_hz, np.array([i_f]), load_ohm=a.receiver_load_ohm(freq_hz), elevation_rad=el)
+        held = _amplitudes_key(a, src, freq_hz, reference_m, ground, None, kind)
+        _AMPLITUDES.get(held, lambda a=a, amp=amp: (a, (complex(amp[0]), 0j)))
+    for (key, _, _), part in zip(compact, parts[len(todo) :]):
+        _FIELDS.get(key, lambda part=part: part)
+    for (_, _, keep), part in zip(extra, parts[len(todo) + len(compact) :]):
+        keep(part)
+
+
+def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, seen: set) -> list:
+    """[(:func:`_kept_field`'s key, points, heights)] of the segments of every compact antenna of ``antennas`` read
+    through its transmit currents whose power is not known and whose field there is not held: worked in
+    :func:`_prefetch_wire_emfs`' one call of the field with the wires'."""
+    out = []
+    for k, a in enumerate(antennas):
+        if np.isfinite(p[k]) or a.integrates_near_sources or a.composite or not has_place(a):
+            continue
+        segments = transmit_segments(a, freq_hz)
+        if segments is None:
+            continue
+        pts = np.asarray(segments[0], dtype=float)
+        q = np.ascontiguousarray(antenna_point(a, reference_m)[None, :] + pts[:, :2])
+        z = np.ascontiguousarray(pts[:, 2])
+        if q.size > 2 * FIELD_MEMO_POINTS:
+            continue
+        key = _field_key(src, q, z, freq_hz, ground, kind)
+        if key in _FIELDS or key in seen:
+            continue
+        seen.add(key)
+        out.append((key, q, z))
+    return out
 
 
 def _source_key(src, kind: str) -> tuple:
@@ -718,7 +768,16 @@ def received_amplitudes(
 
     Kept in :data:`_AMPLITUDES` by the antenna object itself and the rest of what enters them: :func:`pickup` works
     them out, the antenna's feed line (snrgain.model.feedline) reads them."""
-    key = (
+    key = _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind)
+    held = _AMPLITUDES.get(
+        key, lambda: (antenna, _received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind))
+    )
+    return held[1]
+
+
+def _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind) -> tuple:
+    """:data:`_AMPLITUDES`' key: the antenna object and the rest of what enters its amplitudes."""
+    return (
         id(antenna),
         field_vector,  # the function itself (a test may put another in its place)
         _source_key(src, kind),
@@ -728,10 +787,6 @@ def received_amplitudes(
         tuple(float(c) for c in reference_m),
         None if at_m is None else tuple(float(c) for c in at_m),
     )
-    held = _AMPLITUDES.get(
-        key, lambda: (antenna, _received_amplitudes(antenna, src, freq_hz, reference_m, ground, at_m=at_m, kind=kind))
-    )
-    return held[1]
 
 
 _AMPLITUDES = Memo(512)
@@ -849,7 +904,11 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for kind, _ in dipoles(src):
-            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p)
+            from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
+
+            routes = feedline.route_points_ahead(sc, antennas, src, kind, sc.freq_hz, ground)
+            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p, extra=routes)
+        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
@@ -971,3 +1030,50 @@ def _field_power_worked(src, point_m, freq_hz: float, ground) -> float:
         ev, eh = source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)
         total += float(np.abs(ev[0]) ** 2 + np.abs(eh[0]) ** 2)
     return total
+
+
+def _load_variant_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+    """Fill ``p`` (NaN where not known) for long wires standing at one place with one geometry and line that differ
+    only in their loads (a termination search's resistors): the EMFs along the wire once (:func:`_source_emfs`, kept),
+    every wire's feed current from them in one pass (snrgain.physics.reciprocity.through_lines), each one's
+    amplitudes kept as :func:`received_amplitudes` keeps them (its feed line reads them)."""
+    from snrgain.antennas.longwire import port_response
+
+    groups: dict[tuple, list[int]] = {}
+    for k, a in enumerate(antennas):
+        if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
+            continue
+        feed = antenna_point(a, reference_m)
+        ln = a.line(freq_hz)
+        key = (
+            type(a),
+            float(feed[0]),
+            float(feed[1]),
+            float(a.bearing_rad),
+            float(a.length_m),
+            float(a.wire_height_m()),
+            bool(a.has_leads),
+            complex(ln.gamma),
+            complex(ln.z0),
+        )
+        groups.setdefault(key, []).append(k)
+    for ks in (ks for ks in groups.values() if len(ks) > 1):
+        wires = [antennas[k] for k in ks]
+        first = wires[0]
+        feeds = np.atleast_2d(antenna_point(first, reference_m))
+        b = first.bearing_rad
+        u = np.array([np.sin(b), np.cos(b)])
+        to_src = np.asarray(src.position_m) - feeds[0]
+        closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, first.length_m) * u)))
+        x = wire_grid(first, src, freq_hz, closest)
+        loads = np.array([w.receiver_load_ohm(freq_hz) for w in wires])
+        el = np.full(len(wires), src.elevation_rad)
+        total = np.zeros(len(wires))
+        for kind, _ in dipoles(src):
+            emf, lead = _source_emfs(first, src, freq_hz, feeds, ground, x, u, kind)
+            e = port_response(freq_hz, through_lines(wires, freq_hz, x, emf, lead), load_ohm=loads, elevation_rad=el)
+            for w, a in zip(wires, e):
+                key = _amplitudes_key(w, src, freq_hz, reference_m, ground, None, kind)
+                _AMPLITUDES.get(key, lambda w=w, a=a: (w, (complex(a), 0j)))
+            total += np.abs(e) ** 2
+        p[ks] = total

@@ -94,9 +94,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from snrgain.physics import lines
-from snrgain.physics.ground import C_M_PER_S
-from snrgain.physics.quadrature import even_samples, gauss_legendre, samples_rule
-from snrgain.physics.reciprocity import LEAD_POINTS
+from snrgain.physics.quadrature import even_samples, gauss_legendre
+from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -361,16 +360,14 @@ def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_r
     return np.abs(ev) ** 2 + np.abs(eh) ** 2
 
 
-ROUTE_LEAST_SAMPLES = 200
-"""The fewest steps along a run (:func:`route_samples`)."""
-
-
-def route_samples(fl: FeedLine, freq_hz: float, closest_m: float) -> np.ndarray:
-    """Distances along the run [m]: finer than a 40th of a wavelength and a quarter of the closest approach of a
-    source, at least 200 steps, at most 20,000, an even number of them."""
-    lam = C_M_PER_S / freq_hz
-    step = min(lam / 40.0, max(closest_m, 0.05) / 4.0)
-    return even_samples(fl.length_m, int(np.clip(np.ceil(fl.length_m / step), ROUTE_LEAST_SAMPLES, 20_000)))
+def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None, closest_at_m=None) -> np.ndarray:
+    """Distances along the run [m]: even steps as many as :func:`snrgain.physics.reciprocity.sample_steps` gives
+    for a source whose closest approach is ``closest_m`` (the shield's own line's ``line_gamma`` counted when given),
+    at most 20,000, an even number of them; or, given where along the run that closest point is (``closest_at_m``),
+    steps graded from it (:func:`snrgain.physics.reciprocity.graded_samples`: fine only near the source)."""
+    if closest_at_m is not None:
+        return graded_samples(fl.length_m, freq_hz, closest_m, closest_at_m, line_gamma, most=20_000)
+    return even_samples(fl.length_m, sample_steps(fl.length_m, freq_hz, closest_m, line_gamma, most=20_000))
 
 
 def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
@@ -388,15 +385,19 @@ def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
 
 
-def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float):
+def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gamma=None, closest_at_m=None):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
     :func:`snrgain.model.placed.field_vector`), on :func:`route_samples`; what does not depend on the loads.  The
     run and both leads in one call of the field (:func:`route_points`)."""
+    x = route_samples(fl, freq_hz, closest_m, line_gamma, closest_at_m)
+    return route_emf_from(fl, x, field(*route_points(fl, x)))
+
+
+def route_emf_from(fl: FeedLine, x, e):
+    """:func:`route_emf` from the field ``e`` (N, 3) already worked at :func:`route_points` of the samples ``x``."""
     b = fl.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
-    x = route_samples(fl, freq_hz, closest_m)
-    e = field(*route_points(fl, x))
     n = len(x)
     emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
     if fl.buried:
@@ -412,7 +413,7 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
     z_a, z_s = c.z_end, fl.station_ground_ohm
     d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
     transfer = (z0 * np.cosh(g * (L - x)) + z_s * np.sinh(g * (L - x))) / d
-    current = (emf * transfer) @ samples_rule(x)
+    current = (emf * transfer) @ pairs_rule(x)
     current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
     return complex(-current * c.divider)
 
@@ -420,10 +421,10 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
 def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m: float) -> complex:
     """The current [A] through the receiver's load from an incident field given as ``field(points (N, 2), heights
     (N,)) -> (N, 3)`` [east, north, up] (a placed source's, :func:`snrgain.model.placed.field_vector`): the EMF
-    along the run (Simpson's rule on :func:`route_samples`) and up and down its leads, through the line's
-    transfer function to the antenna end, times the current divider.
+    along the run (Simpson's rule on :func:`route_samples`' even samples) and up and down its leads, through the
+    line's transfer function to the antenna end, times the current divider.
 
     Its sign is the antenna's own feed current's (snrgain.antennas.longwire: up the feed lead through the load):
     I_A leaves the junction up into the shield, so the share that comes through the antenna's loop runs down
     through the load, -I_A Z_rod / (Z_rod + Z_loop); the two add as phasors where one source drives both."""
-    return emf_current(fl, c, *route_emf(fl, freq_hz, field, closest_m=closest_m))
+    return emf_current(fl, c, *route_emf(fl, freq_hz, field, closest_m=closest_m, line_gamma=c.line.gamma))
