@@ -205,7 +205,7 @@ def through_lines(wires, freq_hz, x, emf, lead) -> np.ndarray:
     c_l, s_l = np.cosh(g * L), np.sinh(g * L)
     out = np.empty(len(wires), dtype=complex)
     for j, wire in enumerate(wires):
-        z_feed = wire.receiver_load_ohm(freq_hz) + wire.feed_rod_ohm
+        z_feed = wire.feed_load_ohm(freq_hz)  # the loads as the wire meets them, up its leads (as through_line)
         z_far = wire.far_load_ohm(freq_hz)
         if z_far is None:  # open far end
             den = z0 * c_l + z_feed * s_l
@@ -217,7 +217,7 @@ def through_lines(wires, freq_hz, x, emf, lead) -> np.ndarray:
             current = (z0 * m_c + z_far * m_s) / d
             if lead is not None:  # up the feed lead (the transfer at the first sample), down the far lead (the last)
                 current += lead[0] * (z0 * ch[0] + z_far * sh[0]) / d - lead[1] * (z0 * ch[-1] + z_far * sh[-1]) / d
-        out[j] = current
+        out[j] = current * wire.feed_current_ratio(freq_hz)  # in the receiver's load, at the feed lead's foot
     return out
 
 
