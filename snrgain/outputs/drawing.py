@@ -49,6 +49,8 @@ def save_figure(fig, target, fmt: str, **savefig) -> None:
 
     if fmt != "png":
         savefig.pop("pil_kwargs", None)
+    elif _png_one_draw(fig, target, **savefig):
+        return
     engine = fig.get_layout_engine()
     if (
         savefig.get("bbox_inches") != "tight"
@@ -66,6 +68,90 @@ def save_figure(fig, target, fmt: str, **savefig) -> None:
     finally:
         if engine is not None:
             fig.set_layout_engine(engine)
+
+
+MARGIN_INCHES = 1.0
+"""Room drawn around a figure for what runs past its edges (an outside legend, a long title), which
+``bbox_inches="tight"`` keeps (:func:`_png_one_draw`)."""
+
+
+def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, pil_kwargs=None, **rest) -> bool:
+    """Write ``fig`` as ``savefig(target, format="png", dpi=dpi, bbox_inches="tight", ...)`` would, with one draw.
+
+    The figure is drawn once on its own Agg canvas widened by :data:`MARGIN_INCHES` on every side (as savefig
+    widens it for its tight box: the artists stay where they are, the figure's face fills the rest), and the
+    image is cut to what was drawn there (every pixel not of the face colour) and ``pad_inches`` around it.
+    savefig instead measures every artist's extent (a second pass over all of them) and draws again into a canvas
+    of that size: the same picture, cut to the ink instead of the text boxes (a few pixels tighter).
+
+    Only where that is the same picture: the figure on an Agg canvas at the file's ``dpi``, an opaque face, a
+    tight box asked for and nothing else of savefig's, and nothing drawn as far as the margin's edge (it could
+    run on past it).  Returns False, having written nothing, otherwise."""
+    import matplotlib as mpl
+    import numpy as np
+    from matplotlib import _tight_bbox
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+
+    if dpi is None:
+        dpi = mpl.rcParams["savefig.dpi"]
+    if dpi == "figure":
+        dpi = fig.dpi
+    engine = fig.get_layout_engine()
+    face = mpl.colors.to_rgba(fig.get_facecolor())
+    if (
+        rest
+        or bbox_inches != "tight"
+        or type(fig.canvas) is not FigureCanvasAgg
+        or dpi != fig.dpi
+        or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))  # one that acts at each draw
+        or mpl.rcParams["savefig.facecolor"] != "auto"
+        or mpl.rcParams["savefig.edgecolor"] != "auto"
+        or face[3] != 1
+        or not fig.patch.get_visible()
+    ):
+        return False
+    if pad_inches is None:
+        pad_inches = mpl.rcParams["savefig.pad_inches"]
+    canvas = fig.canvas
+    w, h = fig.get_size_inches()
+    m = MARGIN_INCHES
+    from matplotlib.transforms import Bbox
+
+    restore = _tight_bbox.adjust_bbox(fig, Bbox.from_extents(-m, -m, w + m, h + m), canvas.get_renderer())
+    try:
+        canvas.draw()
+        image = np.asarray(canvas.buffer_rgba())
+    finally:
+        restore()
+    packed = image.view(np.uint32)[..., 0]  # one 32-bit word a pixel
+    ink = packed != np.array(np.round(np.multiply(face, 255)), dtype=np.uint8).view(np.uint32)[0]
+    rows = np.flatnonzero(ink.any(axis=1))
+    cols = np.flatnonzero(ink.any(axis=0))
+    if not rows.size or rows[0] == 0 or cols[0] == 0 or rows[-1] == ink.shape[0] - 1 or cols[-1] == ink.shape[1] - 1:
+        return False  # nothing drawn, or something reaches the margin's edge
+    pad = int(round(pad_inches * dpi))
+    y0, y1 = max(rows[0] - pad, 0), min(rows[-1] + 1 + pad, ink.shape[0])
+    x0, x1 = max(cols[0] - pad, 0), min(cols[-1] + 1 + pad, ink.shape[1])
+    image = image[y0:y1, x0:x1]
+    _write_png(target, image, dpi, pil_kwargs)
+    return True
+
+
+def _write_png(target, rgba, dpi: float, pil_kwargs: dict | None) -> None:
+    """An RGBA image (rows from the top) as PNG, as ``matplotlib.image.imsave`` writes it (its Software note, the
+    dpi), but as RGB where every pixel is opaque: the same picture, a quarter less to compress."""
+    import matplotlib as mpl
+    import numpy as np
+    from PIL import Image, PngImagePlugin
+
+    kw = dict(pil_kwargs or {})
+    if "pnginfo" not in kw:
+        kw["pnginfo"] = info = PngImagePlugin.PngInfo()
+        info.add_text("Software", f"Matplotlib version{mpl.__version__}, https://matplotlib.org/")
+    mode = "RGB" if rgba[..., 3].min() == 255 else "RGBA"
+    pixels = np.ascontiguousarray(rgba[..., :3] if mode == "RGB" else rgba)
+    Image.fromarray(pixels, mode).save(target, format="png", dpi=(dpi, dpi), **kw)
 
 
 def tight_box(fig, fmt: str, dpi: float | str | None = None, pad: float | None = None):

@@ -61,9 +61,13 @@ def _axes(
     """The figure and axes to draw on: those given (one Axes, or a sequence of n), or new ones on a new Figure
     (n panels in a column, or in a row with ``columns``)."""
     if ax is None:
+        from matplotlib.backends.backend_agg import FigureCanvasAgg
         from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
 
-        fig = Figure(figsize=figsize)
+        # At the files' resolution, on an Agg canvas of its own: the layout (tight_layout) and the PNG's one draw
+        # then measure every text with the same renderer, once (snrgain.outputs.drawing.save_figure).
+        fig = Figure(figsize=figsize, dpi=SAVE_OPTIONS["dpi"])
+        FigureCanvasAgg(fig)
         if polar:
             return fig, [fig.add_subplot(projection="polar")]
         shape = (1, n) if columns else (n, 1)
@@ -81,6 +85,26 @@ def _axes(
     if polar and axes[0].name != "polar":
         raise ValueError("ax: this figure needs polar axes (projection='polar')")
     return axes[0].figure, axes
+
+
+def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
+    """Lay out a figure's panels at fixed margins and gaps [inches], in place of a measured layout (tight_layout
+    measures every text of the figure in an extra pass).  The margins hold the tick labels and titles and may be
+    generous: the files are cut to what is drawn (``bbox_inches="tight"``), and whatever runs past the figure's
+    edge (an outside legend, a long name) is kept there too (:func:`snrgain.outputs.drawing.save_figure`)."""
+    w, h = fig.get_size_inches()
+    grid = fig.axes[0].get_subplotspec().get_gridspec() if fig.axes[0].get_subplotspec() else None
+    rows, cols = grid.get_geometry() if grid is not None else (1, 1)
+    ah = (h - top - bottom - (rows - 1) * hgap) / rows  # one panel's height and width
+    aw = (w - left - right - (cols - 1) * wgap) / cols
+    fig.subplots_adjust(
+        left=left / w,
+        right=1 - right / w,
+        top=1 - top / h,
+        bottom=bottom / h,
+        hspace=hgap / ah if rows > 1 else None,
+        wspace=wgap / aw if cols > 1 else None,
+    )
 
 
 def azimuth_pattern(results, *, target_index: int = 0, ax=None):
@@ -106,7 +130,21 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     ticks = np.arange(0, FLOOR_SPAN_DB + 1, 10)
     ax.set_rticks(ticks)
     ax.set_yticklabels([f"{floor + t:.0f}" for t in ticks], fontsize=8)
-    ax.set_rlabel_position(135)
+    # the gain labels along the bearing farthest from every target and local source, where no arrow crosses them
+    marked = [t["bearing_deg"] for t in results.targets] + [s["bearing_deg"] for s in results.local_sources]
+    ax.set_rlabel_position(
+        max(
+            np.arange(22.5, 360.0, 45.0),
+            key=lambda a: min((abs((a - b + 180.0) % 360.0 - 180.0) for b in marked), default=180.0),
+        )
+    )
+    # A compass label where a target's name stands would lie under it: that name carries its own bearing instead.
+    bearings = [t["bearing_deg"] % 360.0 for t in results.targets]
+    compass = np.arange(0, 360, 45)
+    ax.set_thetagrids(
+        compass,
+        ["" if any(abs((c - b + 180.0) % 360.0 - 180.0) < 12.0 for b in bearings) else f"{c:d}°" for c in compass],
+    )
     for i, (t, tl) in enumerate(zip(results.targets, target_looks(len(results.targets)))):
         ax.annotate(
             "",
@@ -128,7 +166,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         ax.text(
             np.radians(t["bearing_deg"]),
             FLOOR_SPAN_DB + 6,
-            t["name"],
+            f"{t['name']} {t['bearing_deg'] % 360.0:.0f}°",
             ha="center",
             va="center",
             fontsize=9,
@@ -145,7 +183,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     )
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     if own:
-        fig.tight_layout()
+        _place(fig, left=0.6, right=1.9, top=1.1, bottom=0.9)  # a circle 5 in across, the legend to its right
     return fig
 
 
@@ -193,7 +231,7 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     if own:
-        fig.tight_layout()
+        _place(fig, left=0.8, right=2.4, top=0.45, bottom=0.65)
     return fig
 
 
@@ -264,6 +302,7 @@ def noise_sky(
     vmin = vmax - 40
     mesh = None
     for ax, (name, m) in zip(axes, panels):
+        ink = "white" if np.any(m > 0) else "black"  # the names: white on the colour map, black on the plain grey
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
@@ -286,12 +325,13 @@ def noise_sky(
                 )
             )
             ax.plot([t["bearing_deg"]], [hi], marker=tl.marker, mfc="white", mec="black", ms=10, ls="none")
-            ax.text(t["bearing_deg"] + 5, hi + 2, t["name"], color="white", fontsize=8)
+            ax.text(t["bearing_deg"] + 5, hi + 2, t["name"], color=ink, fontsize=8)
         for c in compact:
             az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
             el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
             ax.plot([az], [el], ls="none", **SOURCE_MARKER)
-            ax.text(az + 2, el + 3, c.name, color="white", fontsize=8)
+            # to the left of its cross: the targets' names stand to the right of theirs
+            ax.text(az - 4, el, c.name, color=ink, fontsize=8, ha="right", va="center")
         ax.set_ylim(0, 90)
     axes[-1].set_xlabel("azimuth (compass bearing, deg)")
     axes[-1].set_xticks(np.arange(0, 361, 45))
@@ -304,7 +344,7 @@ def noise_sky(
     )
     if own:
         fig.suptitle(title, fontsize=11)
-        fig.tight_layout(rect=(0, 0, 0.9, 1))
+        _place(fig, left=0.8, right=1.05, top=1.05, bottom=0.65, hgap=0.4)
         if mesh is not None:
             fig.colorbar(mesh, cax=fig.add_axes((0.91, 0.15, 0.02, 0.7)), label="dB above 1 K")
     else:
@@ -401,11 +441,11 @@ def snr_over_hours(results, *, ax=None):
             axi.set_xlim(x[0] - 0.5, x[-1] + 0.5)
         axi.set_xlabel("UTC hour (the target's listening window, in order)")
     axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
-    band = "; bands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
+    band = "\nbands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
     title = f"SNR gain over the reference through the hours, {lab.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
         fig.suptitle(title, fontsize=10)
-        fig.tight_layout()
+        _place(fig, left=0.8, right=2.3, top=0.85, bottom=0.6, hgap=0.85)
     return fig
 
 
@@ -461,7 +501,7 @@ def ranking_chart(results, *, ax=None):
     axes[0].set_xlim(lo_x, hi_x + 0.25 * (hi_x - lo_x))  # room for the values and "best" beside the bars
     axes[0].axvline(0, color="0.3", lw=1)
     axes[0].set_yticks(y, names)
-    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %; best: the best toward that target")
+    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %;\nbest: the best toward that target")
     axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10)
     axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)
@@ -481,7 +521,7 @@ def ranking_chart(results, *, ax=None):
     for yi, v in zip(y, margin):
         axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
     axes[2].set_xlabel("margin over the chain's floor (dB)")
-    axes[2].set_title("External-noise margin (worst hour; '!' below target)", fontsize=10)
+    axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10)
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
@@ -489,7 +529,7 @@ def ranking_chart(results, *, ax=None):
     title = f"Ranking at {at['site']}, {at['frequency_hz'] / 1e6:g} MHz (reference: {at['reference']})"
     if own:
         fig.suptitle(title, fontsize=11)
-        fig.tight_layout()
+        _place(fig, left=2.4, right=0.5, top=0.85, bottom=0.8, wgap=0.35)  # the left margin: the antennas' names
     return fig
 
 
@@ -660,10 +700,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         fontweight="bold",
         arrowprops={"arrowstyle": "->", "lw": 2},
     )
-    ax.set_title(f"{title} (marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10)
+    ax.set_title(f"{title}\n(marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10)
+    entries = len(ax.get_legend_handles_labels()[1])
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
-    if own:
-        fig.tight_layout()
+    if own:  # below the plot: its axis label, then the legend's rows
+        _place(fig, left=0.9, right=0.3, top=0.6, bottom=0.9 + 0.2 * ((entries + 1) // 2))
     return fig
 
 
