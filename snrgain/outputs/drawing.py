@@ -43,13 +43,20 @@ def figure_bytes(fig, fmt: str, **savefig) -> bytes:
 
 
 def save_figure(fig, target, fmt: str, **savefig) -> None:
-    """``fig.savefig(target, format=fmt, **savefig)``: the same bytes, with ``bbox_inches="tight"`` found without
-    the draw savefig makes for it (:func:`tight_box`).  PNG-only keywords (``pil_kwargs``) are dropped for SVG."""
+    """``fig.savefig(target, format=fmt, **savefig)`` with one draw instead of two for ``bbox_inches="tight"``.
+
+    A PNG is drawn once with a margin and cut to what was drawn (:func:`_png_one_draw`), an SVG drawn once with a
+    margin and its view box set to the artists' box measured with the renderer that drew them
+    (:func:`_svg_one_draw`): the same pictures as savefig's.  Where those do not apply, the same bytes as savefig's,
+    the tight box found without savefig's first draw (:func:`tight_box`).  PNG-only keywords (``pil_kwargs``) are
+    dropped for SVG."""
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
     if fmt != "png":
         savefig.pop("pil_kwargs", None)
-    elif _png_one_draw(fig, target, **savefig):
+    if fmt == "png" and _png_one_draw(fig, target, **savefig):
+        return
+    if fmt == "svg" and _svg_one_draw(fig, target, **savefig):
         return
     engine = fig.get_layout_engine()
     if (
@@ -135,6 +142,75 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
     x0, x1 = max(cols[0] - pad, 0), min(cols[-1] + 1 + pad, ink.shape[1])
     image = image[y0:y1, x0:x1]
     _write_png(target, image, dpi, pil_kwargs)
+    return True
+
+
+def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=None, **rest) -> bool:
+    """Write ``fig`` as ``savefig(target, format="svg", bbox_inches="tight", metadata=metadata)`` would, with one
+    draw: savefig draws the figure widened by :data:`MARGIN_INCHES` on every side (a box given to savefig, so it
+    does not measure first), the artists' box is measured at the end of that draw with its own renderer (each text
+    already measured), and the file's size and view box are set to it, ``pad_inches`` around.  The same picture as
+    savefig's; its coordinates counted from the widened figure's corner.
+
+    Only on the figure's own Agg canvas (the command line's figures), with no layout engine that acts at each
+    draw and nothing else of savefig's asked, and where the box lies inside the margin.  Returns False, having
+    written nothing, otherwise."""
+    import re
+
+    import matplotlib as mpl
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+    from matplotlib.transforms import Bbox
+
+    engine = fig.get_layout_engine()
+    if (
+        rest
+        or bbox_inches != "tight"
+        or type(fig.canvas) is not FigureCanvasAgg
+        or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))
+    ):
+        return False
+    if pad_inches is None:
+        pad_inches = mpl.rcParams["savefig.pad_inches"]
+    m = MARGIN_INCHES
+    w, h = fig.get_size_inches()
+    boxes = []
+    cid = fig.canvas.mpl_connect("draw_event", lambda event: boxes.append(fig.get_tightbbox(event.renderer)))
+    buf = io.BytesIO()
+    fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
+    try:
+        fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
+    finally:
+        fig.canvas.mpl_disconnect(cid)
+        if engine is not None:
+            fig.set_layout_engine(engine)
+    if len(boxes) != 1:
+        return False
+    box = boxes[0]  # inches from the widened figure's lower left corner
+    if box.x0 <= 0 or box.y0 <= 0 or box.x1 >= w + 2 * m or box.y1 >= h + 2 * m:
+        return False  # something runs on past the margin: savefig's own measure
+    box = box.padded(pad_inches)
+    x0, x1 = max(box.x0, 0.0) * 72, min(box.x1, w + 2 * m) * 72  # points, the view box's (y from the top)
+    top, bottom = (h + 2 * m - min(box.y1, h + 2 * m)) * 72, (h + 2 * m - max(box.y0, 0.0)) * 72
+    text = buf.getvalue().decode("utf-8")
+    header = re.compile(r'<svg([^>]*?) width="[^"]*" height="[^"]*" viewBox="[^"]*"')
+    if len(header.findall(text, 0, 2000)) != 1:
+        return False
+    fmt = mpl.backends.backend_svg._short_float_fmt
+    text = header.sub(
+        lambda k: (
+            f'<svg{k.group(1)} width="{fmt(x1 - x0)}pt" height="{fmt(bottom - top)}pt" '
+            f'viewBox="{fmt(x0)} {fmt(top)} {fmt(x1 - x0)} {fmt(bottom - top)}"'
+        ),
+        text,
+        count=1,
+    )
+    data = text.encode("utf-8")
+    if hasattr(target, "write"):
+        target.write(data)
+    else:
+        with open(target, "wb") as f:
+            f.write(data)
     return True
 
 

@@ -331,7 +331,7 @@ def noise_sky(
             el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
             ax.plot([az], [el], ls="none", **SOURCE_MARKER)
             # to the left of its cross: the targets' names stand to the right of theirs
-            ax.text(az - 4, el, c.name, color=ink, fontsize=8, ha="right", va="center")
+            ax.text(az - 6, el, c.name, color=ink, fontsize=8, ha="right", va="center")
         ax.set_ylim(0, 90)
     axes[-1].set_xlabel("azimuth (compass bearing, deg)")
     axes[-1].set_xticks(np.arange(0, 361, 45))
