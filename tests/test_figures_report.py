@@ -405,6 +405,24 @@ def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_it
         there = drawer.draw(jobs, done=lambda: counted.append(1), cost=[1.0, 2.0, 1.5])
     assert there == here and len(counted) == len(jobs)
     assert not multiprocessing.active_children()
+    # The site plan handed over before the results (Drawer.ahead: the scenario's plan alone, with its antennas'
+    # looks, which are the results'): its bytes are taken for the job named, which is not drawn again (here a job
+    # that would fail); one the helper could not draw is drawn with the others.
+    from snrgain.outputs.siteplan import plan_of
+    from snrgain.scenario import load
+
+    plan = plan_of(load(SCENARIOS / "alder-hollow.toml"))
+    assert plots.plan_looks(plan) == plots.looks_of(results)
+    ahead_job = (partial(plots.scenario_plan, plan), "png", plots.SAVE_OPTIONS)
+    planned = drawing.draw_all([(partial(plots.site_plan, results, plan=plan), "png", plots.SAVE_OPTIONS)])
+    failing = (partial(plots.azimuth_pattern, results, target_index=99), "png", plots.SAVE_OPTIONS)
+    counted = []
+    with drawing.Drawer("png") as drawer:
+        drawer.ahead("plan", ahead_job)
+        drawer.ahead("broken", failing)
+        there = drawer.draw([jobs[0], failing, jobs[2]], ahead={1: "plan", 2: "broken"}, done=lambda: counted.append(1))
+    assert there == [here[0], planned[0], here[2]] and len(counted) == 3
+    assert not multiprocessing.active_children()
     # A figure that fails: its error is the command's; an evaluation that fails: the process ends with the block.
     with pytest.raises(IndexError):
         with drawing.Drawer("png") as drawer:

@@ -384,6 +384,10 @@ class Drawer:
     its own forked workers, reporting each figure done.  Leaving the ``with`` block ends the helper, also when the
     evaluation failed or was stopped.  Where the figures would be drawn in this process anyway (one core, no
     fork, ``SNRGAIN_WORKERS=1``) no helper is started, and where the jobs cannot be pickled they are drawn here.
+
+    A figure that needs no results (the site plan, from the scenario) can be handed over before them
+    (:meth:`ahead`): the helper draws it while this process evaluates, and :meth:`draw` takes its bytes for the job
+    named so (``ahead={index: key}``), which is drawn as any other where the early one is missing or failed.
     """
 
     def __init__(self, fmt: str = "png", *, modules: Sequence[str] = ()):
@@ -416,20 +420,36 @@ class Drawer:
             proc.terminate()
         proc.join()
 
+    def ahead(self, key: str, job: tuple[Callable, str, dict]) -> None:
+        """Hand the helper one job to draw now, before the results (nothing where there is no helper, or where the
+        job cannot be pickled: :meth:`draw` then draws it with the others)."""
+        if self._proc is None:
+            return
+        try:
+            payload = pickle.dumps(("ahead", key, job), protocol=pickle.HIGHEST_PROTOCOL)
+        except (pickle.PicklingError, TypeError, AttributeError):
+            return
+        try:
+            self._conn.send_bytes(payload)
+        except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
+            pass
+
     def draw(
         self,
         jobs: Sequence[tuple[Callable, str, dict]],
         *,
         done: Callable[[], None] | None = None,
         cost: Sequence[float] | None = None,
+        ahead: dict[int, str] | None = None,
     ) -> list[bytes]:
-        """:func:`draw_all` of the jobs, in the helper if there is one."""
+        """:func:`draw_all` of the jobs, in the helper if there is one; ``ahead``: the jobs (by index) that the
+        helper was handed before (:meth:`ahead`, by key), whose bytes it has drawn by now."""
         from snrgain.errors import stop_if_asked
 
         if self._proc is None:
             return draw_all(jobs, done=done, cost=cost)
         try:
-            payload = pickle.dumps((list(jobs), cost), protocol=pickle.HIGHEST_PROTOCOL)
+            payload = pickle.dumps(("jobs", list(jobs), cost, dict(ahead or {})), protocol=pickle.HIGHEST_PROTOCOL)
         except (pickle.PicklingError, TypeError, AttributeError):  # e.g. a figure function made in a notebook
             self.close()
             return draw_all(jobs, done=done, cost=cost)
@@ -451,19 +471,39 @@ class Drawer:
 
 
 def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
-    """The helper process of :class:`Drawer`: warm up, wait for the jobs, draw them, send the bytes back."""
+    """The helper process of :class:`Drawer`: warm up, draw what is handed ahead as it comes, wait for the jobs,
+    draw them (those drawn ahead taken as they are), send the bytes back."""
     _worker_start(parent)
     try:
         warm_up(fmt, modules)
     except Exception:  # any real problem comes back when the figures are drawn
         pass
+    early: dict[str, bytes] = {}
+    while True:
+        try:
+            message = pickle.loads(conn.recv_bytes())
+        except (EOFError, OSError):  # the command ended without drawing
+            return
+        if message[0] != "ahead":
+            break
+        _, key, (make, kind, savefig) = message
+        try:
+            early[key] = figure_bytes(make(), kind, **savefig)
+        except Exception:  # drawn again with the others, where its error is the command's
+            pass
     try:
-        payload = conn.recv_bytes()
-    except (EOFError, OSError):  # the command ended without drawing
-        return
-    try:
-        jobs, cost = pickle.loads(payload)
-        out = draw_all(jobs, done=lambda: conn.send(("done", None)), cost=cost)
+        _, jobs, cost, ahead = message
+        ready = {k: early[key] for k, key in ahead.items() if key in early}
+        rest = [k for k in range(len(jobs)) if k not in ready]
+        for _ in ready:
+            conn.send(("done", None))
+        drawn = draw_all(
+            [jobs[k] for k in rest],
+            done=lambda: conn.send(("done", None)),
+            cost=None if cost is None else [cost[k] for k in rest],
+        )
+        ready.update(zip(rest, drawn))
+        out = [ready[k] for k in range(len(jobs))]
     except BaseException as exc:  # the command raises it as its own
         try:
             conn.send(("failed", exc))

@@ -556,11 +556,25 @@ def site_plan(results, *, plan: dict | None = None, ax=None):
     return _draw_plan(plan, looks_of(results), f"Site plan, {plan['site']}", ax=ax)
 
 
+def plan_looks(plan: dict) -> dict:
+    """The antennas' looks as the plan lists them (the scenario's order, the reference first): those of the
+    results (:func:`snrgain.outputs.style.looks_of`) when the plan is the scenario's."""
+    return antenna_looks([a["name"] for a in plan["antennas"]], [a["family"] for a in plan["antennas"]])
+
+
+def scenario_plan(plan: dict, *, ax=None):
+    """:func:`site_plan` from the scenario's plan alone (:func:`snrgain.outputs.siteplan.plan_of`), before there
+    are results: the same figure where :func:`plan_looks` are the results' looks (the command line draws it while
+    the scenario is evaluated, and uses it only then)."""
+    if not has_site_plan(None, plan=plan):
+        raise ValueError("the scenario gives no lot outline ([site] lot) and no antenna positions (position = [e, n])")
+    return _draw_plan(plan, plan_looks(plan), f"Site plan, {plan['site']}", ax=ax)
+
+
 def layout_plan(plan: dict, *, ax=None):
     """A layout on the lot (the site plan with the placed candidates where the layout puts them, each with the SNR
     gain it reaches).  ``plan`` is :func:`snrgain.tools.layout.plan_data`."""
-    looks = antenna_looks([a["name"] for a in plan["antennas"]], [a["family"] for a in plan["antennas"]])
-    return _draw_plan(plan, looks, f"Layout, {plan['site']}", ax=ax)
+    return _draw_plan(plan, plan_looks(plan), f"Layout, {plan['site']}", ax=ax)
 
 
 def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
