@@ -235,13 +235,16 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     return fig
 
 
-def _sky_grid(comp, az_edges, el_edges):
+def _sky_grid(comp, az_edges, el_edges, weights: dict | None = None):
     """Brightness temperature [K] of a diffuse component at the centres of a regular az/el grid, interpolated on the
     sphere (bilinear between the four nearest pixel centres, healpy's scheme in numpy: noisemodels.sphere), not
     looked up pixel by pixel.
 
     Pixels centred below the horizon hold no brightness; each takes the value of its mirror image above the
-    horizon, so the interpolation just above 0 deg is not pulled toward zero (which drew a dotted row there)."""
+    horizon, so the interpolation just above 0 deg is not pulled toward zero (which drew a dotted row there).
+
+    ``weights``: a dict kept between the components of one figure, holding the grid's interpolation pixels and
+    weights by HEALPix resolution (the same for every component of that resolution)."""
     from noisemodels.sphere import direction_to_pixel, interpolation_weights, mirror_pixels, to_healpy_angles
 
     d = comp.directions
@@ -249,11 +252,15 @@ def _sky_grid(comp, az_edges, el_edges):
     full[direction_to_pixel(d.nside, d.azimuth_rad, d.elevation_rad)] = comp.weight_k_sr / d.solid_angle_sr
     below, mirror = mirror_pixels(d.nside)
     full[below] = full[mirror]  # the same bearing, elevation reflected
-    az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
-    el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
-    A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
-    pix, wgt = interpolation_weights(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
-    return np.sum(wgt * full[pix], axis=0).reshape(A.shape)
+    shape = (el_edges.size - 1, az_edges.size - 1)
+    weights = {} if weights is None else weights
+    if d.nside not in weights:
+        az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
+        el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
+        A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
+        weights[d.nside] = interpolation_weights(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
+    pix, wgt = weights[d.nside]
+    return np.sum(wgt * full[pix], axis=0).reshape(shape)
 
 
 def sky_moment(results) -> tuple[int, int]:
@@ -288,7 +295,8 @@ def noise_sky(
     compact = [c for c in comps if c.directions.nside is None]
     az_edges = np.arange(0, 361, 1.0)
     el_edges = np.arange(0, 90.1, 0.5)
-    maps = [(c.name, _sky_grid(c, az_edges, el_edges)) for c in diffuse]
+    grid_weights: dict = {}
+    maps = [(c.name, _sky_grid(c, az_edges, el_edges, grid_weights)) for c in diffuse]
     total = sum(m for _, m in maps) if maps else np.zeros((el_edges.size - 1, az_edges.size - 1))
     panels = (
         [("total of the diffuse components", total)]
@@ -765,7 +773,7 @@ FIGURES = {
 }
 """Figure functions by short name (for the command line)."""
 
-FIGURE_COST = {"sky": 3.0, "hours": 2.0, "ranking": 2.0, "azimuth": 1.3, "plan": 1.0, "elevation": 1.0}
+FIGURE_COST = {"sky": 3.5, "hours": 2.7, "ranking": 2.6, "azimuth": 1.2, "plan": 1.2, "elevation": 1.0}
 """Rough relative drawing time of each figure by short name (measured on benchmarks/realistic-site.toml): the
 command line hands the heaviest to its workers first (:func:`snrgain.outputs.drawing.draw_all`)."""
 
