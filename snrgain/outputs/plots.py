@@ -180,6 +180,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
         f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz",
         pad=28,
+        y=1.0,  # placed, not moved above the decorations at the draw (which measures them once more)
     )
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     if own:
@@ -226,7 +227,8 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     ax.set_xlabel("elevation (deg above the horizon)")
     ax.set_ylabel("total gain (dBi)")
     ax.set_title(
-        f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz"
+        f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz",
+        y=1.0,
     )
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
@@ -324,7 +326,7 @@ def noise_sky(
             ax.set_facecolor("0.9")
             ax.text(180, 45, "none reaches the ground (screened by the ionosphere)", ha="center", va="center")
         ax.set_ylabel("elevation (deg)")
-        ax.set_title(name, fontsize=10, loc="left")
+        ax.set_title(name, fontsize=10, loc="left", y=1.0)
         for t, tl in zip(results.targets, target_looks(len(results.targets))):
             lo, hi = t["elevation_min_deg"], t["elevation_max_deg"]
             ax.add_patch(
@@ -356,7 +358,7 @@ def noise_sky(
         if mesh is not None:
             fig.colorbar(mesh, cax=fig.add_axes((0.91, 0.15, 0.02, 0.7)), label="dB above 1 K")
     else:
-        axes[0].set_title(title, fontsize=9)
+        axes[0].set_title(title, fontsize=9, y=1.0)
         if mesh is not None:
             fig.colorbar(mesh, ax=axes, label="dB above 1 K")
     return fig
@@ -442,7 +444,7 @@ def snr_over_hours(results, *, ax=None):
                 axi.vlines(x, np.fmin(hi, lo), np.fmax(hi, lo), color=lk.color, lw=1.0, alpha=0.7)
         axi.axhline(0.0, label=f"{ref_name} (reference)", **looks[ref_name].line())
         axi.set_ylabel("SNR gain (dB)")
-        axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left")
+        axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left", y=1.0)
         axi.grid(alpha=0.3)
         if len(x):
             axi.set_xticks(x, [f"{h:g}" for h in order])
@@ -510,11 +512,11 @@ def ranking_chart(results, *, ax=None):
     axes[0].axvline(0, color="0.3", lw=1)
     axes[0].set_yticks(y, names)
     axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %;\nbest: the best toward that target")
-    axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10)
+    axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10, y=1.0)
     axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
-    axes[1].set_title("RDF per target", fontsize=10)
+    axes[1].set_title("RDF per target", fontsize=10, y=1.0)
     target = lab.attrs["margin_target_db"]
     margin = np.nanmin(lab.get("margin_db")[keep], axis=(1, 2))
     axes[2].barh(
@@ -526,10 +528,12 @@ def ranking_chart(results, *, ax=None):
         lw=1.5,
     )
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
+    lo_x, hi_x = axes[2].get_xlim()
+    axes[2].set_xlim(lo_x, hi_x + 0.15 * (hi_x - lo_x))  # room for the values beside the bars
     for yi, v in zip(y, margin):
         axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
     axes[2].set_xlabel("margin over the chain's floor (dB)")
-    axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10)
+    axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10, y=1.0)
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
@@ -722,7 +726,7 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         fontweight="bold",
         arrowprops={"arrowstyle": "->", "lw": 2},
     )
-    ax.set_title(f"{title}\n(marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10)
+    ax.set_title(f"{title}\n(marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10, y=1.0)
     entries = len(ax.get_legend_handles_labels()[1])
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
     if own:  # below the plot: its axis label, then the legend's rows
