@@ -13,8 +13,11 @@ inherit matplotlib, the fonts and the results.  The command itself never imports
 Where fork is not available (Windows, macOS' default), with one core, one figure, or ``SNRGAIN_WORKERS=1``, the
 figures are drawn one after the other in this process: the bytes are the same either way (tested).
 
-Each figure is saved as ``savefig(bbox_inches="tight")`` saves it, byte for byte, with one draw instead of two
-(:func:`save_figure`).
+Each figure is saved as ``savefig(bbox_inches="tight")`` saves it, with one draw instead of two
+(:func:`save_figure`): the figure is drawn with a margin round it and cut to what was drawn (PNG) or to the
+artists' box measured by the renderer that drew them (SVG).  The figures lay themselves out at fixed margins
+(snrgain.outputs.plots), not by measuring every text first.  A figure that needs no results (the site plan) is
+drawn by the helper while the command still evaluates (:meth:`Drawer.ahead`).
 """
 
 from __future__ import annotations
@@ -33,12 +36,12 @@ _JOBS: Sequence[tuple[Callable, str, dict]] = ()
 
 
 def figure_bytes(fig, fmt: str, **savefig) -> bytes:
-    """One figure serialised as PNG or SVG (:func:`save_figure`), closed afterwards."""
+    """One figure serialised as PNG or SVG (:func:`save_figure`).
+
+    The figure is left as it is, to be let go by the caller: ``Figure.clear()`` would build every axes' ticks
+    again (a tenth of a figure's time), and a figure that is not pyplot's is freed with its last reference."""
     buf = io.BytesIO()
-    try:
-        save_figure(fig, buf, fmt, **savefig)
-    finally:
-        fig.clear()
+    save_figure(fig, buf, fmt, **savefig)
     return buf.getvalue()
 
 
