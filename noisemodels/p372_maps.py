@@ -25,6 +25,7 @@ centre (02, 06, ..., 22 h local mean time) is interpolated linearly in power
 
 from __future__ import annotations
 
+import math
 import os
 import re
 from dataclasses import dataclass
@@ -71,6 +72,9 @@ class AtmosphericCoefficients:
 
 
 _HEADER = re.compile(r"^\s*([A-Za-z][A-Za-z0-9_]*)\s*\(\s*(\d+(?:\s*,\s*\d+)*)\s*\)\s*$")
+_HEADER_IN_TEXT = re.compile(  # the same header found in the whole text, within one line
+    r"^[ \t]*([A-Za-z][A-Za-z0-9_]*)[ \t]*\([ \t]*(\d+(?:[ \t]*,[ \t]*\d+)*)[ \t]*\)[ \t]*$", re.M
+)
 
 
 def resolve_data_dir(data_dir: str | Path | None = None) -> Path:
@@ -95,7 +99,9 @@ def month_file(data_dir: Path, month: int) -> Path:
 def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
     """Read the four noise sections of one month's coefficient file.
 
-    Raises P372DataError naming the file, and the section or line at fault.
+    Raises P372DataError naming the file, and the section or line at fault.  Each noise section's numbers are read
+    in one numpy conversion; a file that does not read cleanly that way is read again line by line
+    (:func:`_read_by_line`), which names the line at fault.
     """
     path = Path(path)
     try:
@@ -104,10 +110,39 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
         raise P372DataError(
             f"{path}: cannot read P.372 coefficient file ({exc.strerror or exc}). {HOW_TO_GET}"
         ) from None
+    text = text.replace("\x1a", "")
+    heads = list(_HEADER_IN_TEXT.finditer(text))
+    arrays = {}
+    for i, m in enumerate(heads):
+        name = m.group(1)
+        if name not in SECTIONS:
+            continue
+        dims = tuple(int(x) for x in m.group(2).split(","))
+        end = heads[i + 1].start() if i + 1 < len(heads) else len(text)
+        try:
+            numbers = np.array(text[m.end() : end].split(), dtype=float)
+        except ValueError:
+            break  # a word that is not a number: the line-by-line reading names it
+        if (
+            name in arrays
+            or dims != SECTIONS[name]
+            or numbers.size != int(np.prod(dims))
+            or not np.all(np.abs(numbers) < MAX_COEFFICIENT)
+        ):
+            break
+        arrays[name] = numbers.reshape(dims[::-1])
+    if arrays.keys() != SECTIONS.keys():
+        return _read_by_line(path, text, month)
+    return AtmosphericCoefficients(month, path, arrays["fakp"], arrays["fakabp"], arrays["dud"], arrays["fam"])
+
+
+def _read_by_line(path: Path, text: str, month: int) -> AtmosphericCoefficients:
+    """The file read line by line, for its error message: raises P372DataError naming the section or line at
+    fault (or returns the coefficients, should the file read cleanly after all)."""
     values: dict[str, list[float]] = {}
     dims: dict[str, tuple[int, ...]] = {}
     current = None
-    for line_no, line in enumerate(text.replace("\x1a", "").splitlines(), start=1):
+    for line_no, line in enumerate(text.splitlines(), start=1):
         m = _HEADER.match(line)
         if m:
             name = m.group(1)
@@ -124,7 +159,7 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
             raise P372DataError(
                 f"{path}, line {line_no}: section {current}: not a number in {line.strip()!r}"
             ) from None
-        if not all(np.isfinite(x) and abs(x) < MAX_COEFFICIENT for x in row):
+        if not all(math.isfinite(x) and abs(x) < MAX_COEFFICIENT for x in row):
             raise P372DataError(
                 f"{path}, line {line_no}: section {current}: a value out of range in {line.strip()!r} "
                 f"(coefficients lie within +-{MAX_COEFFICIENT:g}); the file is damaged"
@@ -166,6 +201,20 @@ def _horner(coeffs, u):
     return out
 
 
+def _sine_harmonics(x: np.ndarray, count: int) -> np.ndarray:
+    """sin(k x) for k = 1..count, (places, count), by the recurrence sin((k+1)x) = 2 cos x sin kx - sin((k-1)x)
+    from one sine and cosine per place (rounding grows with k, to some 1e-14 at k = 29: the maps' sums move by
+    less than 1e-11 dB)."""
+    out = np.empty((x.size, count))
+    two_cos = 2.0 * np.cos(x)
+    out[:, 0] = np.sin(x)
+    if count > 1:
+        out[:, 1] = two_cos * out[:, 0]
+    for k in range(2, count):
+        out[:, k] = two_cos * out[:, k - 1] - out[:, k - 2]
+    return out
+
+
 def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     """Median atmospheric noise at 1 MHz, Fam1 [dB above kT0b], steps 1-2 (vectorised).
 
@@ -179,25 +228,63 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     b = np.asarray(block, dtype=int)
     shape = np.broadcast_shapes(lat.shape, b.shape)
     p = (lat + np.pi / 2).ravel()
-    sin_k = np.sin(q.ravel()[:, None] * np.arange(1, 16))  # (places, 15)
-    sin_j = np.sin(p[:, None] * np.arange(1, 30))  # (places, 29)
+    sin_k = _sine_harmonics(q.ravel(), 15)  # (places, 15)
+    sin_j = _sine_harmonics(p, 29)  # (places, 29)
     place = np.broadcast_to(np.arange(lat.size).reshape(lat.shape), shape)
     b = np.broadcast_to(b, shape)
     out = np.empty(shape)
-    for blk in np.unique(b):
+    for blk in np.unique(block):  # the distinct blocks of the argument as given (small), not of its broadcast
         sel = b == blk
         idx = place[sel]
-        z = np.einsum("nk,kj->nj", sin_k[idx], c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)
-        out[sel] = np.einsum("nj,nj->n", z, sin_j[idx]) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * p[idx]
+        # the places this block is asked at, each once: all of them (no gathers) when it covers every place
+        need = np.unique(idx) if idx.size < lat.size else np.arange(lat.size)
+        whole = need.size == lat.size
+        sk, sj, pp = (sin_k, sin_j, p) if whole else (sin_k[need], sin_j[need], p[need])
+        z = np.einsum("nk,kj->nj", sk, c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)
+        value = np.einsum("nj,nj->n", z, sj) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * pp
+        out[sel] = value[idx] if whole else value[np.searchsorted(need, idx)]
     return out
+
+
+_SMALL_CALLS: dict[tuple, tuple] = {}
+SMALL_CALL = 64
+"""Up to this many places x blocks a call of :func:`block_values` is kept by its arguments' values (a site's own
+level, asked again for every hour of the month), and a copy of the kept values returned."""
 
 
 def block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block):
     """(FaA, D_u, D_l) [dB] for a time block, steps 1-4 (vectorised)."""
+    args = [np.asarray(a, dtype=float) for a in (lat_rad, lon_rad, freq_mhz)] + [np.asarray(block)]
+    if max(a.size for a in args) > SMALL_CALL:
+        return _block_values(c, lat_rad, lon_rad, freq_mhz, block)
+    key = (id(c), *((a.shape, a.dtype.str, a.tobytes()) for a in args))
+    held = _SMALL_CALLS.get(key)
+    if held is None or held[0] is not c:
+        if len(_SMALL_CALLS) >= 512:
+            _SMALL_CALLS.clear()
+        held = _SMALL_CALLS[key] = (c, _block_values(c, lat_rad, lon_rad, freq_mhz, block))
+    return tuple(np.array(v, copy=True) for v in held[1])
+
+
+def _block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block):
     lat = np.asarray(lat_rad, dtype=float)
     f = np.asarray(freq_mhz, dtype=float)
     b = np.asarray(block, dtype=int)
     fam1 = fam_1mhz(c, lat, lon_rad, b)
+    if f.size == 1 or np.all(f == f.flat[0]):
+        # One frequency: every polynomial of step 3-4 depends on the table row t alone (block and hemisphere, 12
+        # rows), so each is evaluated once per row and gathered, the same sums as per place
+        f0 = float(f.flat[0])
+        lat, b, fam1 = np.broadcast_arrays(lat, b, fam1)
+        t = np.where(lat >= 0, b, b + 6)
+        u = (8.0 * 2.0 ** np.log10(f0) - 11.0) / 4.0
+        x = np.log10(min(f0, 20.0))
+        pz0, px0 = _horner(c.fam[:, 0:7], -0.75), _horner(c.fam[:, 7:14], -0.75)
+        pzu, pxu = _horner(c.fam[:, 0:7], u), _horner(c.fam[:, 7:14], u)
+        fa = (fam1 * (2.0 - pz0[t]) - px0[t]) * pzu[t] + pxu[t]
+        out = (fa, _horner(c.dud[0], x)[t], _horner(c.dud[1], x)[t])
+        shape = np.broadcast_shapes(t.shape, f.shape)
+        return out if shape == t.shape else tuple(np.broadcast_to(v, shape).copy() for v in out)
     lat, f, b, fam1 = np.broadcast_arrays(lat, f, b, fam1)
     t = np.where(lat >= 0, b, b + 6)
     pz_c = c.fam[t, 0:7]
@@ -223,13 +310,26 @@ def interpolate_blocks(lmt_h, values_by_block):
     ``values_by_block`` is a tuple (fa, du, dl) of arrays with a leading axis of 6.
     """
     fa, du, dl = values_by_block
-    s = (np.asarray(lmt_h, dtype=float) - 2.0) / 4.0  # 0 at block 0's centre
-    lo = np.floor(s).astype(int) % 6
-    hi = (lo + 1) % 6
-    w = s - np.floor(s)
+    lo, hi, w = _block_pair(lmt_h)
 
     def pick(arr, idx):
         return np.take_along_axis(arr, idx[None, ...], axis=0)[0]
 
     p = (1 - w) * 10 ** (pick(fa, lo) / 10) + w * 10 ** (pick(fa, hi) / 10)
     return 10 * np.log10(p), (1 - w) * pick(du, lo) + w * pick(du, hi), (1 - w) * pick(dl, lo) + w * pick(dl, hi)
+
+
+def _block_pair(lmt_h):
+    """The blocks whose centres bracket each local mean time and the weight of the later one."""
+    s = (np.asarray(lmt_h, dtype=float) - 2.0) / 4.0  # 0 at block 0's centre
+    lo = np.floor(s).astype(int) % 6
+    return lo, (lo + 1) % 6, s - np.floor(s)
+
+
+def blend_block_powers(lmt_h, powers_by_block):
+    """:func:`interpolate_blocks`' median as a power ratio, 10^(FaA/10), from the blocks' powers (axis 0 = block
+    0..5, the places' shape after, as ``lmt_h``'s): the same blend without the logarithm and its inverse (a caller
+    that wants the power of every place at many hours, the storm model's sources)."""
+    lo, hi, w = _block_pair(lmt_h)
+    taken = np.take_along_axis(powers_by_block, np.stack([lo, hi]), axis=0)
+    return (1 - w) * taken[0] + w * taken[1]

@@ -61,6 +61,22 @@ class SkyComponent:
         )
 
 
+_MONOPOLE: dict[int, tuple] = {}
+
+
+def _monopole_on(directions: Directions) -> np.ndarray:
+    """:func:`reference_monopole_gain` on a direction set, made once per set (every hour's components of a sky are
+    normalised on the same few sets)."""
+    held = _MONOPOLE.get(id(directions))
+    if held is None or held[0] is not directions:
+        if len(_MONOPOLE) >= 64:
+            _MONOPOLE.clear()
+        gain = reference_monopole_gain(directions.elevation_rad)
+        gain.setflags(write=False)
+        held = _MONOPOLE[id(directions)] = (directions, gain)
+    return held[1]
+
+
 def weighted_temperature_k(gain_linear, weight_k_sr) -> float:
     """(1 / 4 pi) * sum(G * W): antenna temperature [K] of gains on a component."""
     return float(np.dot(gain_linear, weight_k_sr) / (4.0 * np.pi))
@@ -68,7 +84,7 @@ def weighted_temperature_k(gain_linear, weight_k_sr) -> float:
 
 def reference_temperature_k(component: SkyComponent) -> float:
     """Antenna temperature [K] of P.372's reference monopole on a component."""
-    return weighted_temperature_k(reference_monopole_gain(component.directions.elevation_rad), component.weight_k_sr)
+    return weighted_temperature_k(_monopole_on(component.directions), component.weight_k_sr)
 
 
 # -- elevation and azimuth distributions (brightness shapes, unnormalised) ----
@@ -131,7 +147,7 @@ def _shape(registry, name, x, params):
 def normalised_component(name, kind, directions, shape, level) -> SkyComponent:
     """A component with brightness ``shape`` (per sr, any scale) scaled so the reference monopole sees ``level``."""
     weights = np.asarray(shape, dtype=float) * directions.solid_angle_sr
-    t_ref = weighted_temperature_k(reference_monopole_gain(directions.elevation_rad), weights)
+    t_ref = weighted_temperature_k(_monopole_on(directions), weights)
     if not t_ref > 0:
         raise ValueError(f"noise component {name!r} has no power in directions the reference antenna sees")
     target = p372.fa_to_temperature_k(level.fa_db)
@@ -203,7 +219,7 @@ def galactic_component(
     el_min = penetration_elevation_rad(freq_hz, critical_freq_hz=critical_freq_hz, layer_height_m=layer_height_m)
     visible = np.zeros(directions.size, dtype=bool) if np.isnan(el_min) else directions.elevation_rad >= el_min
     weights = np.where(visible, full.weight_k_sr, 0.0)
-    t_ref = weighted_temperature_k(reference_monopole_gain(directions.elevation_rad), weights)
+    t_ref = weighted_temperature_k(_monopole_on(directions), weights)
     with np.errstate(divide="ignore"):
         fa = float(p372.temperature_to_fa_db(t_ref)) if t_ref > 0 else -np.inf
     return SkyComponent(name, "galactic", directions, weights, p372.NoiseLevel(fa, free_sky.du_db, free_sky.dl_db))

@@ -46,7 +46,7 @@ from noisemodels.hops import EARTH_RADIUS_M, fewest_hops, hop_elevation_rad
 from noisemodels.sky import SkyComponent, normalised_component
 from noisemodels.sphere import Directions, direction_to_pixel, interpolation_weights, to_healpy_angles, upper_hemisphere
 
-SKY_MODEL_VERSION = 1
+SKY_MODEL_VERSION = 2
 """Part of the persistent cache's key (noisemodels.skycache): bump it when a change to this module or to the
 P.372 evaluation changes the maps it computes, so that no stored map outlives the code that made it."""
 MIN_ELEVATION_RAD = np.radians(3.0)
@@ -130,6 +130,69 @@ class PathGeometry:
         return np.broadcast_to(az, self.bearing_deg.shape + (SUB_DISTANCE, SUB_BEARING))
 
 
+WGS84_A_M = 6378137.0
+WGS84_F = 1.0 / 298.257223563
+
+
+def geodesic_forward(lat_deg: float, lon_deg: float, azimuth_deg, distance_m) -> tuple[np.ndarray, np.ndarray]:
+    """Where the geodesic on the WGS-84 ellipsoid from (lat, lon) [deg] along ``azimuth_deg`` [deg from north]
+    ends after ``distance_m`` [m]: (latitude, longitude) [deg], vectorised over azimuths and distances.
+
+    Vincenty's direct solution (T. Vincenty, "Direct and inverse solutions of geodesics on the ellipsoid with
+    application of nested equations", Survey Review 23 (176), 88-93 (1975); the formulae as written there, from
+    memory): the auxiliary sphere's arc found by fixed-point iteration, which converges for every distance
+    shorter than half a meridian.  The tests compare it with pyproj.Geod (Karney's algorithm) to a millimetre;
+    pyproj is not imported here (its import costs more than the whole geometry)."""
+    a, f = WGS84_A_M, WGS84_F
+    b_axis = (1.0 - f) * a
+    alpha1 = np.radians(np.asarray(azimuth_deg, dtype=float))
+    s = np.asarray(distance_m, dtype=float)
+    sin_a1, cos_a1 = np.sin(alpha1), np.cos(alpha1)
+    tan_u1 = (1.0 - f) * np.tan(np.radians(lat_deg))
+    cos_u1 = 1.0 / np.sqrt(1.0 + tan_u1 * tan_u1)
+    sin_u1 = tan_u1 * cos_u1
+    sigma1 = np.arctan2(tan_u1, cos_a1)
+    sin_alpha = cos_u1 * sin_a1
+    cos2_alpha = 1.0 - sin_alpha * sin_alpha
+    u2 = cos2_alpha * (a * a - b_axis * b_axis) / (b_axis * b_axis)
+    big_a = 1.0 + u2 / 16384.0 * (4096.0 + u2 * (-768.0 + u2 * (320.0 - 175.0 * u2)))
+    big_b = u2 / 1024.0 * (256.0 + u2 * (-128.0 + u2 * (74.0 - 47.0 * u2)))
+    first = s / (b_axis * big_a)
+    sigma = first
+    for _ in range(200):
+        cos_2sm = np.cos(2.0 * sigma1 + sigma)
+        sin_s, cos_s = np.sin(sigma), np.cos(sigma)
+        d_sigma = (
+            big_b
+            * sin_s
+            * (
+                cos_2sm
+                + big_b
+                / 4.0
+                * (
+                    cos_s * (-1.0 + 2.0 * cos_2sm * cos_2sm)
+                    - big_b / 6.0 * cos_2sm * (-3.0 + 4.0 * sin_s * sin_s) * (-3.0 + 4.0 * cos_2sm * cos_2sm)
+                )
+            )
+        )
+        new = first + d_sigma
+        done = np.all(np.abs(new - sigma) < 1e-13)
+        sigma = new
+        if done:
+            break
+    cos_2sm = np.cos(2.0 * sigma1 + sigma)
+    sin_s, cos_s = np.sin(sigma), np.cos(sigma)
+    tmp = sin_u1 * sin_s - cos_u1 * cos_s * cos_a1
+    lat2 = np.arctan2(sin_u1 * cos_s + cos_u1 * sin_s * cos_a1, (1.0 - f) * np.sqrt(sin_alpha * sin_alpha + tmp * tmp))
+    lam = np.arctan2(sin_s * sin_a1, cos_u1 * cos_s - sin_u1 * sin_s * cos_a1)
+    c = f / 16.0 * cos2_alpha * (4.0 + f * (4.0 - 3.0 * cos2_alpha))
+    big_l = lam - (1.0 - c) * f * sin_alpha * (
+        sigma + c * sin_s * (cos_2sm + c * cos_s * (-1.0 + 2.0 * cos_2sm * cos_2sm))
+    )
+    lon2 = np.mod(np.radians(lon_deg) + big_l + np.pi, 2.0 * np.pi) - np.pi
+    return np.degrees(lat2), np.degrees(lon2)
+
+
 @lru_cache(maxsize=8)
 def path_geometry(
     site_lat_deg: float,
@@ -140,22 +203,17 @@ def path_geometry(
     max_distance_m: float,
 ) -> PathGeometry:
     """The hour-independent geometry of the sample grid around a site (memoised by its inputs)."""
-    from pyproj import Geod
-
     key = (site_lat_deg, site_lon_deg, layer_height_m, bearing_step_deg, distance_step_m, max_distance_m)
     bearings = np.arange(0.0, 360.0, bearing_step_deg)
     dist = np.arange(distance_step_m, max_distance_m + 1.0, distance_step_m)
     b, d = np.meshgrid(bearings, dist, indexing="ij")
-    geod = Geod(ellps="WGS84")
-    lon0 = np.full(b.size, site_lon_deg)
-    lat0 = np.full(b.size, site_lat_deg)
-    lon2, lat2, _ = geod.fwd(lon0, lat0, b.ravel(), d.ravel())
+    lat2, lon2 = geodesic_forward(site_lat_deg, site_lon_deg, b.ravel(), d.ravel())
     n, el = _hops_and_elevation(d, layer_height_m)
     ref_cells, ref_lat, ref_lon = [], [], []
     for i in range(1, int(n.max()) + 1):
         cells = np.flatnonzero(n >= i)
         frac = (2 * i - 1) / (2.0 * n.ravel()[cells])
-        lo, la, _ = geod.fwd(lon0[cells], lat0[cells], b.ravel()[cells], d.ravel()[cells] * frac)
+        la, lo = geodesic_forward(site_lat_deg, site_lon_deg, b.ravel()[cells], d.ravel()[cells] * frac)
         ref_cells.append(cells)
         ref_lat.append(np.radians(la))
         ref_lon.append(np.radians(lo))
@@ -252,13 +310,32 @@ def _noon_loss_db(key: tuple, freq_mhz: float) -> np.ndarray:
     return out
 
 
+_COS_CUTOFF = float(np.cos(np.pi / 2 / 0.881))
+"""cos of the solar zenith angle beyond which the absorption law's factor (cos 0.881 chi) is 0 (chi > 102.2 deg)."""
+_POWERS: dict[int, tuple] = {}
+
+
+def _block_powers(blocks: p372.BlockLevels) -> tuple[p372.BlockLevels, np.ndarray]:
+    """(blocks, 10^(FaA/10) of each block at each place), made once per memoised blocks (p372_blocks)."""
+    held = _POWERS.get(id(blocks))
+    if held is None or held[0] is not blocks:
+        if len(_POWERS) >= 16:
+            _POWERS.clear()
+        powers = 10.0 ** (blocks.fa_db / 10.0)
+        powers.setflags(write=False)
+        held = _POWERS[id(blocks)] = (blocks, powers)
+    return held
+
+
 def cell_power(
     geom: PathGeometry, *, month: int, utc_hour: float, freq_hz: float, data_dir=None, sources=None
 ) -> np.ndarray:
     """Relative noise power arriving from each cell of the grid at a UTC hour (module docstring)."""
     if sources is None:
-        fa = p372_blocks(geom, month=month, freq_hz=freq_hz, data_dir=data_dir).at_utc_hour(utc_hour).fa_db
-        density = 10.0 ** (fa / 10.0)
+        from noisemodels import p372_maps
+
+        blocks, powers = _block_powers(p372_blocks(geom, month=month, freq_hz=freq_hz, data_dir=data_dir))
+        density = p372_maps.blend_block_powers(p372_maps.local_mean_time_h(utc_hour, blocks.longitude_deg), powers)
     else:
         density = np.asarray(sources(geom.latitude_deg, geom.longitude_deg), dtype=float)
     n = geom.hops
@@ -269,7 +346,12 @@ def cell_power(
     loss = np.zeros(n.size)
     for cells, (sin_lat, cos_lat, cos_lon, sin_lon) in zip(geom.reflection_cells, _reflection_trig(geom.key)):
         cos_chi = sin_lat * sin_d + cos_lat * cos_d * (cos_lon * cos_c - sin_lon * sin_c)
-        loss[cells] += _hop_loss_db(noon[cells], np.arccos(np.clip(cos_chi, -1.0, 1.0)))
+        # the night's loss where the sun is below the absorption law's cut-off (0.881 chi >= 90 deg), the law's
+        # powers only where it is up (the same values: its factor is 0 there)
+        day = cos_chi > _COS_CUTOFF
+        hop = np.full(cells.size, NIGHT_LOSS_DB_PER_HOP)
+        hop[day] = _hop_loss_db(noon[cells[day]], np.arccos(np.clip(cos_chi[day], -1.0, 1.0)))
+        loss[cells] += hop
     loss_db = loss.reshape(n.shape)
     loss_db += GROUND_LOSS_DB_PER_REFLECTION * (n - 1)
     return (
@@ -334,9 +416,24 @@ def _deposit_weights(key: tuple, nside: int):
     ncell = geom.bearing_deg.size
     per_cell = SUB_DISTANCE * SUB_BEARING
     cell = np.broadcast_to(np.arange(az_sub.size) // per_cell, pix.shape)
-    pair, inverse = np.unique(pix.astype(np.int64).ravel() * ncell + cell.ravel(), return_inverse=True)
-    weight = np.bincount(inverse.ravel(), weights=w.ravel() / per_cell)
+    pair, weight = _summed_by_key(pix.astype(np.int64).ravel() * ncell + cell.ravel(), w.ravel() / per_cell)
     return pair // ncell, pair % ncell, weight, 12 * nside * nside
+
+
+def _summed_by_key(keys: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The distinct non-negative integer ``keys`` (ascending) and the sum of the ``weights`` of each.  The keys and
+    their positions are packed into one integer and sorted (a plain sort, several times faster than an argsort or
+    np.unique's inverse on a million keys), the positions read back from the low bits."""
+    keys = np.asarray(keys, dtype=np.int64)
+    shift = max(int(keys.size - 1).bit_length(), 1)
+    if keys.size == 0 or int(keys.max()).bit_length() + shift > 62:
+        pair, inverse = np.unique(keys, return_inverse=True)
+        return pair, np.bincount(inverse.ravel(), weights=weights)
+    packed = np.sort((keys << shift) | np.arange(keys.size, dtype=np.int64))
+    order = packed & ((1 << shift) - 1)
+    sorted_keys = packed >> shift
+    start = np.flatnonzero(np.concatenate([[True], sorted_keys[1:] != sorted_keys[:-1]]))
+    return sorted_keys[start], np.add.reduceat(weights[order], start)
 
 
 def _up_pixels(directions: Directions) -> np.ndarray:

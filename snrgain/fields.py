@@ -145,7 +145,7 @@ Elevation = quantity("angle", ge=0.0, le=np.pi / 2)
 class StrictModel(BaseModel):
     """Base for every input model: unknown keys are errors."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False, strict=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False, strict=True, defer_build=True)
 
 
 class GroundRod(StrictModel):

@@ -60,9 +60,10 @@ def _assert_agrees(got, case, *, rdf_db, gain_db, fb_db):
 
 def test_rdf_trend_with_termination_follows_nec2():
     # Reference: the stored nec2c sweep of the termination resistor (150 m at 1.83 MHz, 3 m up over 1 mS/m,
-    # 200-900 ohm) with NEC's wire-to-ground junction taken out (deembedded.json; the model's rods are zero, no
-    # fitting).  Each step's change of RDF follows NEC's: measured within 0.02 dB per step (NEC falls 0.21-0.46 dB per
-    # step), checked to 0.05 dB.  The absolute values are checked in test_against_nec2_with_the_junction_taken_out.
+    # 200-900 ohm) with NEC's wire-to-ground junction taken out as an impedance (deembedded.json; the model's rods are
+    # zero, no fitting).  Each step's change of RDF follows NEC's: measured within 0.034 dB per step (NEC falls
+    # 0.25-0.46 dB per step; with the junction's resistance alone taken out, 0.02 dB and 0.21-0.46 dB), checked to
+    # 0.04 dB (formerly 0.05).  The absolute values are checked in test_against_nec2_with_the_junction_taken_out.
     sweep = [c for c in DEEMB["cases"] if "-r" in c["name"]]
     assert len(sweep) == 6
     nec = np.array([c["rdf_db"] for c in sweep])
@@ -70,7 +71,7 @@ def test_rdf_trend_with_termination_follows_nec2():
         [_figures(_model(c, termination=c["termination_ohm"]), c["freq_mhz"] * 1e6)["rdf_db"] for c in sweep]
     )
     assert np.all(np.diff(nec) < -0.2)  # the reference itself moves well beyond the tolerance below
-    np.testing.assert_allclose(np.diff(mine), np.diff(nec), atol=0.05)
+    np.testing.assert_allclose(np.diff(mine), np.diff(nec), atol=0.04)
 
 
 @pytest.mark.skipif(shutil.which("nec2c") is None, reason="nec2c (Debian package) not installed")
@@ -377,57 +378,130 @@ def test_frequency_outside_validity():
 
 
 # Tolerances: the README's claims ("Long wires"), each the largest difference measured on these decks rounded up to
-# 0.01 dB: RDF 0.38 dB, forward gain 0.91 dB, front-to-back 0.60 dB on the seven wires and 1.22 dB on the termination
-# sweep.  Named outliers: the 30 mS/m wire at 7.1 MHz reads 0.84 dB more RDF than NEC; the 1.2 m wire over 1 mS/m at
-# 3.6 MHz 4.44 dB more front-to-back (NEC 9.6 dB); the 300 ohm termination of the sweep 4.04 dB less (NEC 23.4 dB,
-# the model 19.4 dB, near the resistor of deepest null, where the depth turns on details; at 400 ohm both exceed
-# 20 dB, 29.4 and 23.2 dB, and the front-to-back is not compared).  In all three NEC's own answer has not settled: it
-# moves with the down-leads' segmentation (the next test).
-_RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 0.84}
-_FB_WIDER = {"f360-l70-h12-s1ms-deemb": 4.44, "f183-l150-h3-s1ms-r300-deemb": 4.04}
+# 0.01 dB, with NEC's junction taken out as an impedance (deembedded.json since the references of issue 21; the
+# former, resistance-only figures in brackets, kept in each case's "resistance_only"): RDF 0.19 dB (0.38), forward gain
+# 0.29 dB (0.91), front-to-back 0.52 dB on the wires over 5-30 mS/m (0.60) and 0.87 dB on the rest of the termination
+# sweep (1.22).  Named outliers: the 36 m wire over 30 mS/m at 7.1 MHz, which has almost no directivity, reads 0.85 dB
+# more RDF and 0.93 dB more forward gain than NEC (0.84 and 0.90: its junction, 22 - 2j ohm, is nearly the stub's
+# resistance, 23.4 ohm, less the stub's own radiation resistance, so this case barely moved).  Over 1 mS/m the model's
+# front-to-back is above NEC's in all eight cases, 0.60-3.73 dB; the named ones: the 1.2 m wire at 3.6 MHz 1.84 dB
+# (NEC 12.2, the model 14.0; formerly 4.44 dB against NEC's 9.6), the 300 ohm step of the sweep 1.83 dB (NEC 17.5, the
+# model 19.4; formerly 4.04 against 23.4), and three that got worse: the 400 ohm step 3.73 dB (NEC 19.4, the model
+# 23.2; formerly both above 20 dB, NEC 29.4, and not compared), the 500 ohm step 2.05 dB (NEC 16.8, the model 18.9;
+# formerly 0.32 dB against 19.2) and the 570 ohm wire 1.39 dB (NEC 14.9, the model 16.3; formerly 0.15 dB against
+# 16.2).  Over 1 mS/m the front-to-back near the deepest null turns on what NEC's far end presents: its current
+# along the wire, fitted as a line with a free Z0 over the six sweep steps (make_nearwire.line_fit; a one-off check,
+# not stored), shows the termination plus 19 + 59j ohm now and plus 29 - 37j ohm with the resistance alone taken out
+# (plus 38j over 30 mS/m, where the junction has no reactance; a 3 m lead's partial self-inductance, Rosa's formula
+# from memory, is +55j ohm at 1.83 MHz).  Given those residuals at its far end the model reproduces NEC's sweep within
+# 1.2 dB of front-to-back now, and did formerly but for the 400 ohm null (4.1 dB): the model's neglect of the
+# down-leads' inductance (longwire.py's docstring) is the likely rest of the departure, and the three that got worse
+# had agreed while NEC's far end carried the junction's capacitive reactance instead.  The next test sets these
+# beside NEC's own segmentation spread.
+_RDF_WIDER = {"f710-l36-h2-s30ms-deemb": 0.85}
+_GAIN_WIDER = {"f710-l36-h2-s30ms-deemb": 0.93}
+_FB_WIDER = {
+    "f360-l70-h12-s1ms-deemb": 1.85,
+    "f183-l150-h3-s1ms-r300-deemb": 1.83,
+    "f183-l150-h3-s1ms-r400-deemb": 3.74,
+    "f183-l150-h3-s1ms-r500-deemb": 2.05,
+    "f183-l150-h3-s1ms-deemb": 1.39,
+}
 
 
 @pytest.mark.parametrize("case", DEEMB["cases"], ids=[c["name"] for c in DEEMB["cases"]])
 def test_against_nec2_with_the_junction_taken_out(case):
-    # Reference: nec2c with its wire-to-ground junction resistance measured on a stub of the same segmentation and
-    # subtracted by load cards (tests/nec/make_deembedded.py; 62 ohm for a 2 m bottom segment over 5 mS/m, 164-229
-    # ohm over 1 mS/m).  The model gets the true rod resistance of NEC's ideal connections: zero, no fitting.
+    # Reference: nec2c with its wire-to-ground junction measured as an impedance on a stub of the same segmentation
+    # (its input impedance on the soil less on a perfect ground; 62 - 15j ohm for a 2 m bottom segment over 5 mS/m,
+    # 163 - 96j and 228 - 272j ohm over 1 mS/m) and subtracted by series loads, LD 4 (tests/nec/make_deembedded.py).
+    # The model gets the true rod resistance of NEC's ideal connections: zero, no fitting.
     f = case["freq_mhz"] * 1e6
     ant = _model(case, termination=case["termination_ohm"])
-    fb = 1.22 if "-r" in case["name"] else 0.6
+    fb = 0.87 if "-r" in case["name"] else 0.52
     _assert_agrees(
         _figures(ant, f),
         case,
-        rdf_db=_RDF_WIDER.get(case["name"], 0.38),
-        gain_db=0.91,
+        rdf_db=_RDF_WIDER.get(case["name"], 0.19),
+        gain_db=_GAIN_WIDER.get(case["name"], 0.29),
         fb_db=_FB_WIDER.get(case["name"], fb),
     )
 
 
-def test_the_named_outliers_are_where_nec_has_not_settled():
-    # tests/nec/make_deembedded.py reran four cases with the down-leads split finer (40-200 segments per
-    # wavelength; NEC's junction grows from 62 to 117 ohm over 5 mS/m, from 164-229 to 652-670 ohm over 1 mS/m).
-    # Over 5 mS/m the figures hold (F/B within 0.6 dB, RDF 0.06 dB); over 1 mS/m NEC's front-to-back falls by
-    # 4.7 and 11.9 dB, more than the model departs from it there (4.4 and 4.0 dB), and for the 7.1 MHz wire its
-    # RDF climbs 0.33 dB toward the model's.  So the tolerances widened above cover NEC's uncertainty, not the
-    # model's.
+@pytest.mark.parametrize("case", DEEMB["cases"], ids=[c["name"] for c in DEEMB["cases"]])
+def test_feed_impedance_against_nec2_with_the_junction_taken_out(case):
+    # The feed impedance of the same references (the feed's junction, in series with NEC's source, taken out by its
+    # LD 4 load): the line's input impedance with the termination at its far end.  Measured within 13.7 % of NEC's
+    # (largest at 200 ohm over 1 mS/m, 372 - 105j against 358 - 57j ohm, the far down-lead's inductance again);
+    # checked to 14 %.  With the junction's resistance alone taken out NEC's feed impedance kept the junction's
+    # reactance, and the difference reached 45 % (the 1.2 m wire at 3.6 MHz: 545 - 24j against 672 - 337j ohm).
+    f = case["freq_mhz"] * 1e6
+    z_nec = complex(*case["feed_impedance_ohm"])
+    z = _model(case, termination=case["termination_ohm"]).feed_point_impedance(f)
+    assert abs(z - z_nec) < 0.14 * abs(z_nec)
+
+
+def test_the_named_outliers_beside_necs_own_spread():
+    # tests/nec/make_deembedded.py reran seven cases with the down-leads split finer (40-200 segments per
+    # wavelength; NEC's junction grows from 62 - 15j to 117 - 32j ohm over 5 mS/m, from 163 - 96j and 228 - 272j to
+    # 652 - 396j and 670 - 803j ohm over 1 mS/m).  Over 5 mS/m the figures hold: front-to-back within 0.50 dB, RDF
+    # 0.06 dB, checked to 0.6 and 0.1 dB.  Over 1 mS/m NEC's front-to-back moves with the segmentation, by 8.0 dB at
+    # the 300 ohm step of the sweep (17.3-25.4 dB, the model's 19.4 inside), 2.3 dB for the 1.2 m wire (10.0-12.3 dB),
+    # 1.3, 0.9 and 1.4 dB for the 570 ohm wire and the 400 and 500 ohm steps; for those four the model's
+    # front-to-back lies above every segmentation's, by 1.68, 1.32, 2.87 and 1.98 dB (checked to the next 0.01 dB):
+    # NEC's uncertainty covers part of the departure, the rest is the model's (the far down-lead's inductance, see
+    # above).  With the junction's resistance alone taken out NEC's spread had been 11.9 and 4.8 dB for the first
+    # two, with NEC's front-to-back falling (not rising) as the leads were split finer.  The 7.1 MHz wire's RDF climbs
+    # 0.20 dB toward the model's (0.33 dB formerly), less than the model departs from it (0.85 dB).
     checks = {c["name"]: c["runs"] for c in DEEMB["segmentation_check"]}
+    cases = {c["name"]: c for c in DEEMB["cases"]}
+
+    def values(name, key):
+        return [r[key] for r in checks[name]]
 
     def spread(name, key):
-        values = [r[key] for r in checks[name]]
-        return max(values) - min(values)
+        return max(values(name, key)) - min(values(name, key))
 
-    assert spread("f183-l131-h2-s5ms-deemb", "front_to_back_db") < 1.0
+    assert spread("f183-l131-h2-s5ms-deemb", "front_to_back_db") < 0.6
     assert spread("f183-l131-h2-s5ms-deemb", "rdf_db") < 0.1
+    above_every_segmentation = {
+        "f183-l150-h3-s1ms-r300-deemb": 0.0,
+        "f360-l70-h12-s1ms-deemb": 1.69,
+        "f183-l150-h3-s1ms-deemb": 1.33,
+        "f183-l150-h3-s1ms-r400-deemb": 2.88,
+        "f183-l150-h3-s1ms-r500-deemb": 1.99,
+    }
+    assert set(above_every_segmentation) == set(_FB_WIDER)
+    for name, bound in above_every_segmentation.items():
+        case = cases[name]
+        assert case["front_to_back_db"] == checks[name][0]["front_to_back_db"]  # the stored run is the coarsest
+        mine = _figures(_model(case, termination=case["termination_ohm"]), case["freq_mhz"] * 1e6)["front_to_back_db"]
+        assert abs(mine - case["front_to_back_db"]) > 1.0  # an outlier indeed, beyond the 0.87 dB of the rest
+        assert mine - max(values(name, "front_to_back_db")) <= bound
+    assert spread("f183-l150-h3-s1ms-r300-deemb", "front_to_back_db") > 7.0
+    rdf = values("f710-l36-h2-s30ms-deemb", "rdf_db")
+    assert rdf == sorted(rdf) and rdf[-1] - rdf[0] > 0.15
+
+
+def test_the_impedance_moved_the_former_outliers_toward_the_model():
+    # The stored references against their former, resistance-only figures (make_deembedded.py runs both): the two
+    # outliers of the resistive references came nearer the model, 9.56 -> 12.15 dB (the model 13.99) and 23.40 ->
+    # 17.54 dB (19.37), and the 1.2 m wire's RDF by 0.33 dB and forward gain by 0.42 dB (0.38 -> 0.05 and 0.48 ->
+    # 0.06 dB from the model); over 5-30 mS/m nothing moved by more than 1.11 dB front-to-back (the 1 m wire at
+    # 7.1 MHz, whose junction is 62 - 63j ohm) and 0.03 dB RDF.
     cases = {c["name"]: c for c in DEEMB["cases"]}
     for name in ("f360-l70-h12-s1ms-deemb", "f183-l150-h3-s1ms-r300-deemb"):
-        case = cases[name]
-        f = case["freq_mhz"] * 1e6
-        ant = _model(case, termination=case["termination_ohm"])
-        departure = abs(_figures(ant, f)["front_to_back_db"] - case["front_to_back_db"])
-        assert 2.0 < departure < spread(name, "front_to_back_db")
-    rdf = [r["rdf_db"] for r in checks["f710-l36-h2-s30ms-deemb"]]
-    assert rdf == sorted(rdf) and rdf[-1] - rdf[0] > 0.3
+        case, old = cases[name], cases[name]["resistance_only"]
+        mine = _figures(_model(case, termination=case["termination_ohm"]), case["freq_mhz"] * 1e6)
+        for key in ("front_to_back_db", "rdf_db", "forward_gain_dbi"):
+            assert abs(mine[key] - case[key]) <= abs(mine[key] - old[key]) + 0.01
+        assert abs(mine["front_to_back_db"] - case["front_to_back_db"]) < 0.5 * abs(
+            mine["front_to_back_db"] - old["front_to_back_db"]
+        )
+    for case in DEEMB["cases"]:
+        if case["conductivity_s_per_m"] >= 0.005:
+            old = case["resistance_only"]
+            assert abs(case["front_to_back_db"] - old["front_to_back_db"]) < 1.2
+            assert abs(case["rdf_db"] - old["rdf_db"]) < 0.05
 
 
 LONG = json.loads((NEC_DIR / "long.json").read_text())
@@ -474,30 +548,29 @@ def test_long_reference_reproduced_by_the_patched_engine():
 
 @pytest.mark.skipif(shutil.which("nec2c") is None, reason="nec2c (Debian package) not installed")
 def test_junction_stub_reproduced_by_nec2c():
-    # The 2 m stub over 5 mS/m at 1.83 MHz: NEC's junction resistance, 62 ohm (grows as the segment shortens).
+    # The 2 m stub over 5 mS/m at 1.83 MHz: NEC's junction, 62 - 15j ohm (grows as the segment shortens); its input
+    # resistance read straight off nec2c's table is the junction's resistance within 0.5 ohm (the difference is the
+    # stub's input resistance over a perfect ground, 0.21 ohm in NEC; a short monopole's 40 pi^2 (h/lambda)^2 gives
+    # 0.06 ohm, a textbook formula from memory).
     import sys
 
     sys.path.insert(0, str(NEC_DIR))
-    from make_deembedded import stub_deck
-    from necdeck import run_nec2c
+    from necdeck import junction_impedance, run_nec2c, stub_deck
 
-    z = []
-    for segments in (1, 3):
-        deck = stub_deck(
-            freq_mhz=1.83,
-            height_m=2.0,
-            segments=segments,
-            radius_m=0.0008138,
-            permittivity=13.0,
-            conductivity_s_per_m=0.005,
-        )
-        with tempfile.TemporaryDirectory() as tmp:
-            text = run_nec2c(deck, Path(tmp), "stub")
-        i = text.index("ANTENNA INPUT PARAMETERS")
-        row = text[i:].splitlines()[3].split()
-        z.append(float(row[6]))
-    assert z[0] == pytest.approx(DEEMB["cases"][0]["junction_ohm"], abs=0.5)
-    assert z[1] > 2 * z[0]  # the artefact grows as the bottom segment shortens (2 m -> 0.67 m)
+    stub = {"freq_mhz": 1.83, "height_m": 2.0, "radius_m": 0.0008138, "permittivity": 13.0}
+    stub["conductivity_s_per_m"] = 0.005
+    z, r_in = [], []
+    with tempfile.TemporaryDirectory() as tmp:
+        for segments in (1, 3):
+            z.append(junction_impedance(**stub, segments=segments, workdir=Path(tmp)))
+            text = run_nec2c(stub_deck(**stub, segments=segments), Path(tmp), "stub")
+            i = text.index("ANTENNA INPUT PARAMETERS")
+            r_in.append(float(text[i:].splitlines()[3].split()[6]))
+    stored = complex(*DEEMB["cases"][0]["junction_ohm"])
+    assert abs(z[0] - stored) < 0.01
+    assert stored.imag < -10  # reactive: what the former, resistance-only references left in
+    assert r_in[0] == pytest.approx(stored.real, abs=0.5)
+    assert abs(z[1]) > 2 * abs(z[0])  # the artefact grows as the bottom segment shortens (2 m -> 0.67 m)
 
 
 @pytest.mark.parametrize(

@@ -11,6 +11,10 @@ hundred times while the command imports its libraries (pydantic's schemas alone 
 objects), each pass walking more of them, and a few dozen times in a ``rank``: about 50 ms of a warm ``rank`` of
 the realistic benchmark site, for almost no garbage (numerical work makes arrays, which it does not track).  The
 command line raises that threshold to :data:`GC_FIRST_THRESHOLD`; the collector still runs, less often.
+
+And pydantic's plugins: the first validator pydantic builds looks for plugins among every installed package's
+entry points (``importlib.metadata``), 10-20 ms of a ``check`` on a machine with a few hundred packages.  The
+command uses none, so it sets ``PYDANTIC_DISABLE_PLUGINS`` unless the user has set it.
 """
 
 import os
@@ -21,6 +25,8 @@ from snrgain.allocator import GC_FIRST_THRESHOLD, collect_less  # os and sys onl
 if "numpy" not in sys.modules:  # too late once numpy is loaded (a program that imported it first keeps its own)
     for _name in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ.setdefault(_name, "1")
+
+os.environ.setdefault("PYDANTIC_DISABLE_PLUGINS", "__all__")  # the command validates with no pydantic plugins
 
 collect_less()
 

@@ -359,27 +359,40 @@ def run_quantiles(runs, weights, quantiles, at_least: float) -> tuple[float, ...
 
     lo = min(float(r[0]) for r in runs)
     hi = float(np.nextafter(max(float(r[-1]) for r in runs), np.inf))
+    frac = np.arange(PROBES + 1) / PROBES
+    targets = [q * total for q in quantiles]
+    # every quantile narrowed at once: one searchsorted per run and round for the probes of all of them
+    a, b = [lo] * len(targets), [hi] * len(targets)
+    first = [np.zeros(len(runs), dtype=int) for _ in targets]  # counts below a and b
+    last = [n.copy() for _ in targets]
+    active = [i for i in range(len(targets)) if int((last[i] - first[i]).sum()) > WINDOW]
+    while active:
+        probes = np.array([a[i] + (b[i] - a[i]) * frac for i in active])
+        probes[:, -1] = [b[i] for i in active]
+        flat = counts(probes.ravel())  # (runs, active x probes)
+        c = flat.reshape(len(runs), len(active), PROBES + 1)
+        g = (w @ flat).reshape(len(active), PROBES + 1)
+        still = []
+        for row, i in enumerate(active):
+            j = max(int(np.searchsorted(g[row], targets[i] - w_max, side="left")) - 1, 0)
+            k = min(int(np.searchsorted(g[row], targets[i] + w_max, side="right")), PROBES)
+            if probes[row, j] == a[i] and probes[row, k] == b[i]:
+                continue  # no narrower window (ties, or the ends): merged as it is
+            a[i], b[i], first[i], last[i] = float(probes[row, j]), float(probes[row, k]), c[:, row, j], c[:, row, k]
+            if int((last[i] - first[i]).sum()) > WINDOW:
+                still.append(i)
+        active = still
     out = []
-    for q in quantiles:
-        target = q * total
-        a, b = lo, hi
-        first, last = np.zeros(len(runs), dtype=int), n.copy()  # counts below a and b
-        frac = np.arange(PROBES + 1) / PROBES
-        while int((last - first).sum()) > WINDOW:
-            probes = a + (b - a) * frac
-            probes[-1] = b
-            c = counts(probes)
-            g = w @ c
-            j = max(int(np.searchsorted(g, target - w_max, side="left")) - 1, 0)
-            k = min(int(np.searchsorted(g, target + w_max, side="right")), PROBES)
-            if probes[j] == a and probes[k] == b:
-                break  # no narrower window (ties, or the ends): merged as it is
-            a, b, first, last = float(probes[j]), float(probes[k]), c[:, j], c[:, k]
-        v = np.concatenate([r[i:m] for r, i, m in zip(runs, first, last)])
-        ww = np.concatenate([np.full(m - i, wk) for wk, i, m in zip(w, first, last)])
+    for i, q in enumerate(quantiles):
+        ends = [(r[f], r[m - 1]) for r, f, m in zip(runs, first[i], last[i]) if m > f]
+        if ends and min(e[0] for e in ends) == max(e[1] for e in ends):
+            out.append(float(ends[0][0]))  # one value throughout the window (ties: the reference over itself)
+            continue
+        v = np.concatenate([r[f:m] for r, f, m in zip(runs, first[i], last[i])])
+        ww = np.concatenate([np.full(m - f, wk) for wk, f, m in zip(w, first[i], last[i])])
         order = np.argsort(v, kind="stable")
         v, ww = v[order], ww[order]
-        cum = (float(np.array(first) @ w) + np.cumsum(ww) - 0.5 * ww) / total
+        cum = (float(np.array(first[i]) @ w) + np.cumsum(ww) - 0.5 * ww) / total
         out.append(float(np.interp(q, cum, v)))
     share = float((n - np.array([np.searchsorted(r, at_least, side="left") for r in runs])) @ w) / total
     return (*out, share)

@@ -94,15 +94,8 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
             if ref is None:
                 ref = products(sc, [ants[0]], grid, skies)
             ti = nearest_target(sc, ant.params.bearing)
-            ants[k] = put(
-                bare(ant).termination_under_sky(
-                    sc.freq_hz,
-                    lambda variants, ref=ref, k=k, ti=ti, put=put: _median_gains(
-                        sc, grid, skies, ref, [put(a) for a in variants], k, ti
-                    ),
-                    sc.targets[ti].name,
-                )
-            )
+            score = TerminationScore(sc, grid, skies, ref, put, k, ti)
+            ants[k] = put(bare(ant).termination_under_sky(sc.freq_hz, score, sc.targets[ti].name))
             continue
         signal, noise, ti = sky_forms(sc, skies, ant, k)
         note = f"SNR toward {sc.targets[ti].name} under the site's noise"
@@ -130,3 +123,186 @@ def _median_gains(sc: Scenario, grid, skies, ref: Products, ants, k: int, ti: in
     sub = with_candidates(sc, ants, k)
     p = products(sub, [ref.antennas[0], *ants], grid, skies, known=ref)
     return target_statistic(sub, snr_gains(sub, p))[1:, ti]
+
+
+class TerminationScore:
+    """score(variants) for a resistor searched under the sky (``termination_under_sky``): each variant's statistic
+    toward target ``ti`` [dB], as :func:`_median_gains` gives it, from the products of a few resistors.
+
+    A terminated antenna's feed current from any excitation (a sky direction, a placed source, a scatterer's
+    re-radiation) is I(R) = c(R) (alpha + R beta): the far load R enters the numerator linearly (the line's
+    integrals and the ends' EMFs weighted by it), and the rest, the network's denominator and the feed load's
+    scale (a transformer whose ratio follows R included), is one factor c(R) common to every excitation.
+    Normalised on one probe direction p, I_d(R) = I_p(R) (a_d + R b_d) / (1 + R delta), delta shared by every d;
+    delta follows from three resistors' responses at a few directions (least squares).  Every power the products
+    hold (gains toward the targets, temperatures of every month and hour) is then
+    |I_p(R)|^2 q(R) / |1 + R delta|^2 with q a real quadratic in R, fitted exactly through three resistors'
+    products.  Any other resistor costs one probe response, not a pass of the products.  Two further resistors'
+    products check the form (relative 1e-7); where it does not hold (a family whose current is not of this form)
+    every resistor is worked in full.  The placed sources' part is checked apart: a loop's pickup of a near source
+    through its segments' currents is not of the form to 1e-7, so it is then worked for every resistor (the
+    source's pickup alone, :func:`snrgain.model.placed.pickup`).  The statistic is :func:`_median_gains`'s, from
+    the same gains and temperatures (to rounding)."""
+
+    CHECK_RTOL = 1e-7
+
+    def __init__(self, sc: Scenario, grid, skies, ref: Products, put, k: int, ti: int):
+        self.sc, self.grid, self.skies, self.ref, self.put, self.k, self.ti = sc, grid, skies, ref, put, k, ti
+        self.model = None  # (resistors, q coefficients per quantity, delta, probe directions), once fitted
+        self.direct = False  # the form did not hold: every resistor worked in full
+        self.placed_formed = False  # the placed sources' part follows the form too
+
+    def __call__(self, variants) -> np.ndarray:
+        variants = list(variants)
+        if self.direct or (self.model is None and len(variants) < 5):
+            return self._worked(variants)
+        if self.model is None:
+            out = self._fit(variants)
+            if out is not None:
+                return out
+            self.direct = True
+            return self._worked(variants)
+        return self._statistic(self._predict(variants))
+
+    def _worked(self, variants) -> np.ndarray:
+        return _median_gains(self.sc, self.grid, self.skies, self.ref, [self.put(a) for a in variants], self.k, self.ti)
+
+    def _quantities(self, variants) -> tuple[np.ndarray, np.ndarray] | None:
+        """(formed, placed) of each variant, from a pass of the products (the reference known): formed (variants,
+        targets + cells), its gains toward the targets, then its temperature from every component but the placed
+        sources per month and hour; placed (variants, cells), its temperature from the placed sources.  None with
+        feed lines (their share of the temperatures is not checked against the form)."""
+        sub = with_candidates(self.sc, variants, self.k)
+        ants = [self.put(a) for a in variants]
+        p = products(sub, [self.ref.antennas[0], *ants], self.grid, self.skies, known=self.ref)
+        if p.feed_lines is not None:
+            return None
+        n = len(variants)
+        rows = self._placed_rows()
+        by = p.temps.by_component[:, 1:].reshape(p.temps.by_component.shape[0], n, -1)
+        sky = np.delete(by, rows, axis=0).sum(axis=0)
+        return np.concatenate([p.gains.toward[1:].reshape(n, -1), sky], axis=1), by[rows].sum(axis=0)
+
+    def _placed_rows(self) -> list[int]:
+        return [self.skies.names.index(s.name) for s in self.sc.noise.local if s.position_m is not None]
+
+    def _placed(self, variants) -> np.ndarray:
+        """(variants, cells): each variant's temperature from the placed sources, worked in full (their pickup where
+        the antenna stands, :func:`snrgain.model.placed.pickup`; the reference's share as the products take it)."""
+        from snrgain.model import placed
+
+        n = len(variants)
+        cells = self.ref.temps.total[0].size
+        if not self._placed_rows():
+            return np.zeros((n, cells))
+        sub = with_candidates(self.sc, variants, self.k)
+        shares, _ = placed.pickup(sub, [self.ref.antennas[0], *[self.put(a) for a in variants]])
+        out = np.zeros((n, cells))
+        for name, share in shares.items():
+            t_ref = self.ref.temps.by_component[self.skies.names.index(name), 0].ravel()
+            out += (share[1:] / share[0])[:, None] * t_ref[None, :]
+        return out
+
+    def _statistic(self, quantities: np.ndarray) -> np.ndarray:
+        """The statistic toward ``ti`` of variants with these quantities (gains toward the targets, then the total
+        temperature per month and hour; as :func:`_median_gains`)."""
+        from types import SimpleNamespace
+
+        n, n_tgt = len(quantities), len(self.sc.targets)
+        ref = self.ref
+        toward = np.concatenate([ref.gains.toward[:1], quantities[:, :n_tgt]])
+        total = np.concatenate([ref.temps.total[:1], quantities[:, n_tgt:].reshape(n, *ref.temps.total.shape[1:])])
+        sub = with_candidates(self.sc, [self.sc.antennas[self.k]] * n, self.k)
+        p = SimpleNamespace(gains=SimpleNamespace(toward=toward), temps=SimpleNamespace(total=total))
+        return target_statistic(sub, snr_gains(sub, p))[1:, self.ti]
+
+    def _probe_directions(self):
+        t = self.sc.targets[self.ti]
+        grid = self.grid
+        pick = np.linspace(0, len(grid.azimuth_rad) - 1, 24).astype(int)
+        az = np.concatenate([t.azimuth_rad, grid.azimuth_rad[pick]])
+        el = np.concatenate([t.elevation_rad, grid.elevation_rad[pick]])
+        return az, el, int(np.argmax(t.weight))
+
+    def _responses(self, ant, az, el) -> np.ndarray:
+        ev, eh = ant.complex_response(self.sc.freq_hz, az, el)
+        return np.concatenate([np.ravel(ev), np.ravel(eh)])
+
+    def _fit(self, variants):
+        rs = np.array([_resistor(v) for v in variants])
+        if not np.all(np.isfinite(rs)) or len(set(rs.tolist())) != len(rs):
+            return None
+        order = np.argsort(rs)
+        n = len(rs)
+        fit = [int(order[0]), int(order[n // 2]), int(order[-1])]
+        check = [int(order[n // 4]), int(order[(3 * n) // 4])]
+        if len({*fit, *check}) != 5:
+            return None
+        az, el, probe = self._probe_directions()
+        r3 = rs[fit]
+        resp = np.array([self._responses(variants[i], az, el) for i in fit])  # (3, directions)
+        if not np.all(np.isfinite(resp)) or np.any(resp[:, probe] == 0):
+            return None
+        rho = resp / resp[:, probe : probe + 1]  # (3, d): (a_d + R b_d) / (1 + R delta)
+        normal = np.cross(np.ones(3), r3)  # orthogonal to (1, 1, 1) and (R1, R2, R3)
+        a = normal @ rho
+        b = (normal * r3) @ rho
+        keep = np.abs(b) > 1e-9 * np.max(np.abs(b))
+        if not np.any(keep):
+            return None
+        delta = -np.vdot(b[keep], a[keep]) / np.vdot(b[keep], b[keep])
+        scale = np.abs(resp[:, probe]) ** 2 / np.abs(1 + r3 * delta) ** 2  # (3,)
+        worked = self._quantities([variants[i] for i in fit + check])
+        if worked is None:
+            return None
+        formed, placed_t = worked
+        # the placed sources' part checked on its own: where their pickup is not of the form (a loop's near-field
+        # pickup through its segments' currents), it is worked in full for every resistor
+        both = np.concatenate([formed, placed_t], axis=1)
+        q3 = both[:3] / scale[:, None]
+        x3 = r3 / r3[1]  # the quadratic through the three resistors, in R / R_mid for conditioning
+        coeffs = np.linalg.solve(np.vander(x3, 3), q3)  # (3, quantities): q = c0 x^2 + c1 x + c2
+        self.model = (r3[1], coeffs, delta, az, el, probe)
+        predicted = np.array([self._formed(variants[i]) for i in check])
+        tol = self.CHECK_RTOL * np.max(np.abs(both[3:]), axis=0) + 1e-300
+        ok = np.abs(predicted - both[3:]) <= tol
+        m = formed.shape[1]
+        if not np.all(ok[:, :m]):
+            self.model = None
+            return None
+        self.placed_formed = bool(np.all(ok[:, m:]))
+        values = np.empty((n, m))
+        n_tgt = len(self.sc.targets)
+        for j, i in enumerate(fit + check):
+            values[i] = formed[j]
+            values[i, n_tgt:] += placed_t[j]
+        rest = [i for i in range(n) if i not in fit and i not in check]
+        if rest:
+            values[rest] = self._predict([variants[i] for i in rest])
+        return self._statistic(values)
+
+    def _predict(self, variants) -> np.ndarray:
+        """(variants, targets + cells): gains toward the targets and total temperatures from the form (the placed
+        sources' part worked in full where it is not of the form)."""
+        n_tgt, cells = len(self.sc.targets), self.ref.temps.total[0].size
+        both = np.array([self._formed(v) for v in variants])
+        out = both[:, : n_tgt + cells]
+        if self.placed_formed:
+            out[:, n_tgt:] += both[:, n_tgt + cells :]
+        else:
+            out[:, n_tgt:] += self._placed(variants)
+        return out
+
+    def _formed(self, variant) -> np.ndarray:
+        """A variant's gains toward the targets and its temperature from the sky but the placed sources (the form)."""
+        r_mid, coeffs, delta, az, el, probe = self.model
+        r = _resistor(variant)
+        ev, eh = variant.complex_response(self.sc.freq_hz, az[probe : probe + 1], el[probe : probe + 1])
+        x = r / r_mid
+        scale = abs(np.ravel(ev)[0]) ** 2 / abs(1 + r * delta) ** 2
+        return scale * (coeffs[0] * x * x + coeffs[1] * x + coeffs[2])
+
+
+def _resistor(ant) -> float:
+    t = getattr(ant.params, "termination", None)
+    return float(t) if isinstance(t, (int, float)) else float("nan")

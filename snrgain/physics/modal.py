@@ -50,6 +50,8 @@ attenuation over poor ground at the higher bands (measured in the tests).
 
 from __future__ import annotations
 
+import cmath
+import math
 from functools import lru_cache
 
 import numpy as np
@@ -148,8 +150,8 @@ def _earth_edges(kap0: complex, k0: float, height_m: float, n2: complex) -> list
 def _earth_integrands(lam2, kap0: complex, kap1: complex, h: float, n2: complex, cos_offset):
     """The two integrands of P and of Q's integral at lambda^2 = ``lam2`` (``cos_offset``: cos(lambda offset), or
     None on the axis)."""
-    u0, u1 = _sqrt_re(lam2 + kap0), _sqrt_re(lam2 + kap1)
-    common = np.exp(-2 * u0 * h)
+    u0, u1 = np.sqrt(lam2 + kap0), np.sqrt(lam2 + kap1)  # complex already (kap0, kap1 are): :func:`_sqrt_re`
+    common = np.exp((-2.0 * h) * u0)
     if cos_offset is not None:
         common = common * cos_offset
     return common / (u0 + u1), u0 * (u0 - u1) * common / (n2 * u0 + u1)
@@ -176,10 +178,10 @@ def _earth_on(rule, gamma: complex, k0: float, height_m: float, n2: complex) -> 
 
 def _image_term(gamma, k0, radius_m, height_m) -> complex:
     """K0(kappa0 r) - K0(kappa0 r'), r the radius the field is taken at, r' its distance from the image."""
-    kap = _sqrt_re(-(gamma**2 + k0**2))
-    far = np.hypot(radius_m, 2 * height_m)
+    kap = cmath.sqrt(-(gamma**2 + k0**2))  # a scalar: cmath's principal root has Re >= 0 too (:func:`_sqrt_re`)
+    far = math.hypot(radius_m, 2 * height_m)
     if abs(kap) * far < 1e-8:
-        return complex(np.log(far / radius_m))
+        return complex(math.log(far / radius_m))
     from snrgain.physics.bessel import k0 as bessel_k0
 
     return bessel_k0(kap * radius_m) - bessel_k0(kap * far)
@@ -187,7 +189,7 @@ def _image_term(gamma, k0, radius_m, height_m) -> complex:
 
 def _forward(zy: complex) -> complex:
     """sqrt(Z' Y') on the forward wave's branch (beta > 0)."""
-    new = complex(np.sqrt(zy + 0j))
+    new = cmath.sqrt(zy)
     return -new if new.imag < 0 else new
 
 

@@ -24,9 +24,10 @@ The search (deterministic, so reproducible):
    lengths over the range, feed points on a square grid over the lot (about
    150 inside it); the feasible designs kept, the best few per candidate;
 2. the best combination of those that do not cross one another;
-3. a joint local refinement from it (Nelder-Mead: :func:`nelder_mead`, on
-   the continuous values with a penalty for any violation), kept only if it
-   is feasible and better.
+3. a local refinement from it (:meth:`Problem.polish`: a compass search of
+   each candidate's feed point, bearing and length beside the others, the
+   feed points around each trial scored as one batch), kept only if it
+   keeps every rule and is better.
 
 The next-best combinations are reported too, so a builder can weigh a
 layout that is nearly as good and easier to build.
@@ -55,6 +56,18 @@ TOP_PER_CANDIDATE = 40
 MAX_COMBINATIONS = 100_000
 EDGE_MARGIN_M = 1.0
 """Placed antennas keep this far inside the lot's outline [m]."""
+REFINE_LEAST_STEP_M = 0.5
+"""The refinement (:meth:`Problem.polish`) stops when its feed-point step is down to this [m] ..."""
+REFINE_LEAST_BEARING_RAD = float(np.radians(0.2))
+"""... its bearing step below this [rad] ..."""
+REFINE_LEAST_LENGTH_M = 1.0
+"""... and its length step below this [m]."""
+REFINE_LEAST_GAIN_DB = 1e-3
+"""A move must gain more than this [dB] to be taken."""
+REFINE_FIRST_STEP = 0.25
+"""The refinement's first steps, as a share of the grid's spacing (its longest steps half of it)."""
+REFINE_MOST_ROUNDS = 100
+"""The most stencils the refinement tries per candidate (a bound; it stops well before on the scenarios seen)."""
 WIRE_SEPARATION_M = 10.0
 """Placed wires keep at least this far from other wires (common practice: closer, they couple)."""
 
@@ -165,6 +178,7 @@ class Problem:
         self.fixed_wires = [w for _, w in fixed if w is not None]
         self._sky: dict[tuple, tuple] = {}
         self._scored: dict[tuple, float] = {}
+        self._points: list[tuple[float, float]] | None = None
 
     # -- one candidate ----------------------------------------------------------------------------------------
 
@@ -185,15 +199,19 @@ class Problem:
             spec, f"candidate {name!r}", site_ground=site_ground, base_dir=self.base_dir, freq_hz=self.sc.freq_hz
         )
 
-    def design_products(self, i: int, bearing_rad: float, length_m: float | None):
+    def design_products(self, i: int, bearing_rad: float, length_m: float | None, at_m=None):
         """(antenna, products of [reference, antenna]) for a (bearing, length) of candidate i, made once through the
-        pipeline's stages; other positions reuse its gains (a placed antenna's far field does not move)."""
+        pipeline's stages; other positions reuse its gains (a placed antenna's far field does not move).  ``at_m``:
+        where the antenna made stands (the first place it is scored at, so the placed sources' pickup it holds is
+        of use there; default: no position, the reference's place)."""
         from snrgain.model import pipeline
 
         key = self._key(i, bearing_rad, length_m)
         hit = self._sky.get(key)
         if hit is None:
             ant = self.antenna(i, bearing_rad, length_m)
+            if at_m is not None:
+                ant = ant.at(at_m)
             sub = pipeline.with_candidates(self.sc, [ant], 1 + self.index[i])
             with tabled():
                 p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
@@ -227,8 +245,12 @@ class Problem:
             ants = [self.antenna(i, d0.bearing_rad, d0.length_m).at((d0.east_m, d0.north_m))]
             known = self.ref
         else:
-            ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m)
-            ants = [ant0.at((d.east_m, d.north_m)) for d in designs]
+            ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m, at_m=(d0.east_m, d0.north_m))
+            # the antenna the design's products were made with, where it stands: its pickup is taken from them
+            ants = [
+                ant0 if (d.east_m, d.north_m) == ant0.params.position else ant0.at((d.east_m, d.north_m))
+                for d in designs
+            ]
         if exact:
             return self.ranked_gains_db(ants, i)[:, self.target[i][0]]
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
@@ -302,7 +324,7 @@ class Problem:
 
     def snr_gain_db(self, d: Design, i: int, *, exact: bool = False) -> float:
         """:meth:`snr_gains_db` of one design, kept (the layouts shown share designs; so do the refinement's steps)."""
-        key = (i, d, exact)  # the refinement's first simplex moves one candidate at a time: the others' are kept
+        key = (i, d, exact)
         if key not in self._scored:
             self._scored[key] = float(self.snr_gains_db([d], i, exact=exact)[0])
         return self._scored[key]
@@ -346,9 +368,22 @@ class Problem:
                 )
         return {k: float(x) for k, x in out.items() if x > 0}
 
-    def violations_many(self, designs: list[Design]) -> list[dict[str, float]]:
-        """:meth:`violations` of many designs standing alone (no other placed wire), each rule worked on all of them
-        at once by shapely's array functions (the same operations, in the same order of rules)."""
+    def violations_many(self, designs: list[Design], others=()) -> list[dict[str, float]]:
+        """:meth:`violations` of many designs beside the placed designs ``others`` (default: standing alone), each
+        rule worked on all of them at once by shapely's array functions (the same operations, in the same order of
+        rules)."""
+        columns = self.violation_columns(designs, others)
+        return [{rule: float(v[j]) for rule, v in columns if v[j] > 0} for j in range(len(designs))]
+
+    def keep_rules(self, designs: list[Design], others=()) -> np.ndarray:
+        """Whether each design keeps every rule beside ``others`` (:meth:`violations_many` empty), as an array."""
+        columns = self.violation_columns(designs, others)
+        if not columns:
+            return np.ones(len(designs), dtype=bool)
+        return ~np.any(np.array([v > 0 for _, v in columns]), axis=0)
+
+    def violation_columns(self, designs: list[Design], others=()) -> list[tuple[str, np.ndarray]]:
+        """(rule, how far each design breaks it [m]) of :meth:`violations_many`, rule by rule."""
         import shapely
 
         if designs and all(d.length_m is not None for d in designs):  # wires: their footprints made at once
@@ -404,7 +439,21 @@ class Problem:
                         np.where(line, near, 0.0),
                     )
                 )
-        return [{rule: float(v[j]) for rule, v in columns if v[j] > 0} for j in range(len(designs))]
+        for o in others:  # the other placed wires, as violations() takes them (after the fixed ones)
+            w = self.footprint(o)
+            if w.length > 0:
+                near = np.where(
+                    shapely.intersects(shapes, w),
+                    10.0,
+                    np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, w)),
+                )
+                columns.append(
+                    (
+                        f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {o.name!r}",
+                        np.where(line, near, 0.0),
+                    )
+                )
+        return columns
 
     def violation_m(self, d: Design, others=()) -> float:
         """How far a design breaks the rules [m] (the sum of :meth:`violations`); 0 when it keeps them all."""
@@ -415,13 +464,14 @@ class Problem:
         ValueError naming the rules that bind, most binding first, when there is none."""
         pairs, points = self.grid_designs(i)
         designs = [Design(self.names[i], e, n, b, ln, self.state_names[i]) for b, ln in pairs for e, n in points]
-        found, blocked = [], {}
-        for d, broken in zip(designs, self.violations_many(designs)):
-            if not broken:
-                found.append(d)
-            for rule in broken:
-                blocked[rule] = blocked.get(rule, 0) + 1
+        columns = self.violation_columns(designs)
+        broken: dict[str, np.ndarray] = {}  # by rule (a name given twice: broken where either column is)
+        for rule, v in columns:
+            broken[rule] = broken.get(rule, np.zeros(len(designs), dtype=bool)) | (v > 0)
+        ok = ~np.any(np.array(list(broken.values())), axis=0) if broken else np.ones(len(designs), dtype=bool)
+        found = [d for d, keep in zip(designs, ok) if keep]
         if not found:
+            blocked = {rule: int(np.count_nonzero(b)) for rule, b in broken.items() if b.any()}
             ranked = sorted(blocked.items(), key=lambda kv: -kv[1])
             rules = "; ".join(f"{rule} ({100 * n / len(designs):.0f} %)" for rule, n in ranked[:4])
             raise ValueError(
@@ -454,14 +504,18 @@ class Problem:
         return [(b, ln) for b in bearings for ln in lengths], self.lot_points()
 
     def lot_points(self) -> list[tuple[float, float]]:
-        """Feed points on a square grid over the lot, about POSITIONS_ON_LOT of them inside it."""
-        from shapely.geometry import Point
+        """Feed points on a square grid over the lot, about POSITIONS_ON_LOT of them inside it (made once)."""
+        if self._points is None:
+            import shapely
 
-        minx, miny, maxx, maxy = self.lot.bounds
-        step = max(np.sqrt(self.lot.area / POSITIONS_ON_LOT), 0.5)
-        xs = np.arange(minx + step / 2, maxx, step)
-        ys = np.arange(miny + step / 2, maxy, step)
-        return [(float(x), float(y)) for x in xs for y in ys if self.lot.covers(Point(x, y))]
+            minx, miny, maxx, maxy = self.lot.bounds
+            step = self.lot_step()
+            xs = np.arange(minx + step / 2, maxx, step)
+            ys = np.arange(miny + step / 2, maxy, step)
+            x, y = (a.ravel() for a in np.meshgrid(xs, ys, indexing="ij"))  # x outer, y inner, as listed before
+            inside = shapely.covers(self.lot, shapely.points(x, y))
+            self._points = [(float(a), float(b)) for a, b in zip(x[inside], y[inside])]
+        return list(self._points)
 
     def search(self, *, progress=None, keep: int = 3) -> list[Layout]:
         """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
@@ -515,52 +569,105 @@ class Problem:
             tuple(", ".join(self.sc.targets[t].name for t in self.target[i]) for i in range(len(designs))),
         )
 
-    def refine(self, start: Layout, *, max_evaluations: int = 300) -> Layout:
-        """Joint Nelder-Mead from ``start`` over positions, bearings and lengths (within their ranges), with a
-        penalty of 3 dB per metre of violation; the start is kept unless a feasible, better layout is found."""
-        x0, bounds = [], []
-        for i, d in enumerate(start.designs):
-            pl = self.places[i]
-            x0 += [d.east_m, d.north_m]
-            bounds += [self.lot.bounds[0::2], self.lot.bounds[1::2]]
-            if pl.bearing is not None:
-                x0.append(d.bearing_rad)
-                lo, hi = pl.bearing
-                bounds.append((lo, lo + (np.mod(hi - lo, 2 * np.pi) or 0.0)))
-            if pl.length is not None and d.length_m is not None:
-                x0.append(d.length_m)
-                bounds.append(tuple(pl.length))
-
-        def designs_of(x):
-            out, j = [], 0
-            for i, d in enumerate(start.designs):
-                pl = self.places[i]
-                e, n = x[j], x[j + 1]
-                j += 2
-                b, ln = d.bearing_rad, d.length_m
-                if pl.bearing is not None:
-                    b = float(np.mod(x[j], 2 * np.pi))
-                    j += 1
-                if pl.length is not None and d.length_m is not None:
-                    ln = float(x[j])
-                    j += 1
-                out.append(replace(d, east_m=float(e), north_m=float(n), bearing_rad=b, length_m=ln))
-            return out
-
-        def cost(x):
-            ds = designs_of(np.clip(x, [b[0] for b in bounds], [b[1] for b in bounds]))
-            v = sum(self.violation_m(d, ds[:j]) for j, d in enumerate(ds))
-            return -Layout((), tuple(self.snr_gain_db(d, i) for i, d in enumerate(ds)), ()).worth_db + 3.0 * v
-
-        best = nelder_mead(
-            cost, np.array(x0, dtype=float), bounds, max_evaluations=max_evaluations, xatol=0.5, fatol=0.01
-        )
-        ds = designs_of(np.clip(best, [b[0] for b in bounds], [b[1] for b in bounds]))
-        if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
-            cand = self._layout(ds)
+    def refine(self, start: Layout) -> Layout:
+        """A local search from ``start`` (:meth:`polish`), each candidate in turn beside the others as they stand;
+        the start is kept unless the layout found keeps every rule and is better (as the ranking scores it)."""
+        designs = list(start.designs)
+        for i in range(len(designs)):
+            designs[i] = self.polish(i, designs[i], designs[:i] + designs[i + 1 :])
+        if designs != list(start.designs) and all(
+            self.violation_m(d, designs[:j]) == 0.0 for j, d in enumerate(designs)
+        ):
+            cand = self._layout(designs)
             if cand.worth_db > start.worth_db:
                 return cand
         return start
+
+    def polish(self, i: int, start: Design, others=()) -> Design:
+        """Candidate i's design near ``start`` with the best score (:meth:`snr_gains_db`) that keeps every rule
+        beside ``others``: a compass search (a pattern search with a shrinking stencil: R. M. Lewis, V. Torczon and
+        M. W. Trosset, "Direct search methods: then and now", J. Comput. Appl. Math. 124 (2000) 191-207) over the
+        feed point, the bearing and the length within their ranges, whose steps are worked a stencil at a time.
+
+        A design's far field does not move with it, so the feed point's stencil (the 8 neighbours on a square of
+        side 2 x step) is one call; each step of the bearing or the length (a new pattern) is tried with the same
+        stencil of feed points around the current one, following the ridges where a move of the wire must go with
+        a move of its feed point (a placed source kept off the wire's response).  The first stencil that does
+        better is taken (the one that did last tried first, its step doubled when it does better again, up to half the
+        grid's spacing); when none does, every step is halved, down to REFINE_LEAST_*, and the search ends when a
+        stencil of those least steps finds nothing better.  Steps start at REFINE_FIRST_STEP of the grid's spacing
+        (the grid's best is within half of it of a better design)."""
+        pl = self.places[i]
+        b0 = start.bearing_rad
+        has_b = pl.bearing is not None and b0 is not None and not self.switched[i]
+        has_l = pl.length is not None and start.length_m is not None and not self.switched[i]
+        lo_b = pl.bearing[0] if has_b else 0.0
+        span_b = float(np.mod(pl.bearing[1] - pl.bearing[0], 2 * np.pi)) if has_b else 0.0
+        lo_l, hi_l = pl.length if has_l else (0.0, 0.0)
+        pairs, _ = self.grid_designs(i)
+        nb = len({b for b, _ in pairs})
+        spacing = {  # the grid's: feed points, bearings, lengths
+            "p": self.lot_step(),
+            "b": span_b / max(nb - 1, 1) if has_b else 0.0,
+            "l": (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0,
+        }
+        cur = start
+        best = self.snr_gain_db(cur, i)
+        ring = [(dx, dy) for dx in (-1, 0, 1) for dy in (-1, 0, 1) if dx or dy]
+        least = {"p": REFINE_LEAST_STEP_M, "b": REFINE_LEAST_BEARING_RAD, "l": REFINE_LEAST_LENGTH_M}
+        top = {k: v / 2 for k, v in spacing.items()}
+        step = {k: v * REFINE_FIRST_STEP for k, v in spacing.items()}
+        last = None
+        for _ in range(REFINE_MOST_ROUNDS):
+            moves = [("p", 0)]
+            if has_b:
+                moves += [("b", -1), ("b", 1)]
+            if has_l:
+                moves += [("l", -1), ("l", 1)]
+            if last in moves:
+                moves.remove(last)
+                moves.insert(0, last)
+            moved = False
+            for kind, sign in moves:
+                b, ln = cur.bearing_rad, cur.length_m
+                if kind == "b":
+                    t = float(np.mod(b - lo_b, 2 * np.pi))
+                    if t > span_b:  # outside the range by rounding: the nearer end
+                        t = 0.0 if 2 * np.pi - t < t - span_b else span_b
+                    t2 = float(np.clip(t + sign * step["b"], 0.0, span_b))
+                    if t2 == t:
+                        continue
+                    b = float(np.mod(lo_b + t2, 2 * np.pi))
+                elif kind == "l":
+                    l2 = float(np.clip(ln + sign * step["l"], lo_l, hi_l))
+                    if l2 == ln:
+                        continue
+                    ln = l2
+                sp = step["p"]
+                offsets = ring if kind == "p" else [(0, 0), *ring]
+                trial = [
+                    replace(cur, east_m=cur.east_m + dx * sp, north_m=cur.north_m + dy * sp, bearing_rad=b, length_m=ln)
+                    for dx, dy in offsets
+                ]
+                ok = [d for d, keep in zip(trial, self.keep_rules(trial, others)) if keep]
+                if not ok:
+                    continue
+                g = self.snr_gains_db(ok, i) if len(ok) > 1 else np.array([self.snr_gain_db(ok[0], i)])
+                k = int(np.argmax(g))
+                if g[k] > best + REFINE_LEAST_GAIN_DB:
+                    if last == (kind, sign):  # the same move again: a longer step (up to the first)
+                        step[kind] = min(2 * step[kind], top[kind])
+                    cur, best, last, moved = ok[k], float(g[k]), (kind, sign), True
+                    break
+            if not moved:
+                if all(step[k] <= least[k] for k in step):
+                    break
+                step = {k: max(v / 2, least[k]) if v > least[k] else v for k, v in step.items()}
+        return cur
+
+    def lot_step(self) -> float:
+        """The spacing of the grid of feed points on the lot [m] (:meth:`lot_points`)."""
+        return max(float(np.sqrt(self.lot.area / POSITIONS_ON_LOT)), 0.5)
 
     def random_valid(self, rng, *, tries: int = 20000) -> Layout:
         """A layout drawn at random among the valid ones (for comparison): uniform positions on the lot's box,
@@ -582,86 +689,6 @@ class Problem:
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
                 return self._layout(ds)
         raise ValueError("layout: no valid random placement found")
-
-
-class _Spent(Exception):
-    """The evaluations allowed are spent."""
-
-
-def nelder_mead(fun, x0, bounds, *, max_evaluations: int, xatol: float, fatol: float) -> np.ndarray:
-    """The point of least ``fun`` found by the Nelder-Mead simplex search within ``bounds`` ((low, high) per
-    variable; J. A. Nelder and R. Mead, "A simplex method for function minimization", Computer Journal 7 (1965)
-    308-313, with the usual coefficients: reflection 1, expansion 2, contraction 1/2, shrink 1/2).
-
-    Conventions (those of scipy.optimize.minimize's "Nelder-Mead", so the layout found is the one it found, a test):
-    the start clipped into the bounds; the first simplex the start and, per variable, the start with that variable
-    5 % larger (0.00025 where it is 0), a vertex beyond an upper bound mirrored back inside it, then all clipped;
-    every trial point clipped; the vertices kept sorted by value; stop when no vertex is more than ``xatol`` from
-    the best in any variable and no value more than ``fatol`` from the best, or before an evaluation beyond
-    ``max_evaluations``."""
-    lo = np.array([b[0] for b in bounds], dtype=float)
-    hi = np.array([b[1] for b in bounds], dtype=float)
-    x0 = np.clip(np.asarray(x0, dtype=float).ravel(), lo, hi)
-    n = len(x0)
-    sim = np.empty((n + 1, n))
-    sim[0] = x0
-    for k in range(n):
-        y = x0.copy()
-        y[k] = 1.05 * y[k] if y[k] != 0 else 0.00025
-        sim[k + 1] = y
-    sim = np.clip(np.where(sim > hi, 2 * hi - sim, sim), lo, hi)
-    calls = [0]
-
-    def f(x):
-        if calls[0] >= max_evaluations:
-            raise _Spent
-        calls[0] += 1
-        return float(fun(np.copy(x)))
-
-    fsim = np.full(n + 1, np.inf)
-    try:
-        for k in range(n + 1):
-            fsim[k] = f(sim[k])
-    except _Spent:
-        pass
-    for _ in range(2):  # sorted twice, as the conventions' first sort is (equal values may swap)
-        order = np.argsort(fsim)
-        sim, fsim = sim[order], fsim[order]
-    while calls[0] < max_evaluations:
-        try:
-            if np.max(np.abs(sim[1:] - sim[0])) <= xatol and np.max(np.abs(fsim[0] - fsim[1:])) <= fatol:
-                break
-            centre = np.add.reduce(sim[:-1], 0) / n
-            worst = sim[-1]
-            xr = np.clip(2 * centre - worst, lo, hi)  # reflected
-            fr = f(xr)
-            if fr < fsim[0]:
-                xe = np.clip(3 * centre - 2 * worst, lo, hi)  # expanded
-                fe = f(xe)
-                sim[-1], fsim[-1] = (xe, fe) if fe < fr else (xr, fr)
-            elif fr < fsim[-2]:
-                sim[-1], fsim[-1] = xr, fr
-            else:
-                if fr < fsim[-1]:  # contracted outside
-                    xc = np.clip(1.5 * centre - 0.5 * worst, lo, hi)
-                    fc = f(xc)
-                    shrink = not fc <= fr
-                else:  # contracted inside
-                    xc = np.clip(0.5 * centre + 0.5 * worst, lo, hi)
-                    fc = f(xc)
-                    shrink = not fc < fsim[-1]
-                if not shrink:
-                    sim[-1], fsim[-1] = xc, fc
-                else:
-                    for j in range(1, n + 1):
-                        sim[j] = np.clip(sim[0] + 0.5 * (sim[j] - sim[0]), lo, hi)
-                        fsim[j] = f(sim[j])
-        except _Spent:
-            pass
-        finally:
-            order = np.argsort(fsim)
-            sim, fsim = sim[order], fsim[order]
-    return sim[0]
 
 
 def plan_data(problem: Problem, layout: Layout) -> dict:

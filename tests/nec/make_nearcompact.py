@@ -2,6 +2,7 @@
 
     bash tests/nec/build_nec2c.sh        # once: the patched engine (the sources reach 200 m, beyond a wavelength)
     python tests/nec/make_nearcompact.py  # a few seconds
+    python tests/nec/make_nearcompact.py pennant delta diamond  # those loops' runs alone (Debian's nec2c)
 
 What a small dipole source at a point delivers to an antenna follows, by reciprocity, from the field the antenna
 makes at that point when it transmits from its feed with its own loads in place: the open-circuit voltage is
@@ -20,19 +21,30 @@ A direct check of the reciprocity step is stored too: the 6 m whip with a real 1
 2 m up, 5 segments, fed in its middle) at 10 m and at 60 m, the short-circuit current at the whip's base, whose
 ratio must equal the ratio of the whip's transmitted E_z at the two points.
 
-Antennas (1.83 MHz; Sommerfeld ground eps_r 13, 5 mS/m, GN 2; the whip also over eps_r 5, 1 mS/m):
+Antennas (1.83 MHz; Sommerfeld ground eps_r 13, 5 mS/m, GN 2; the whip and the pennant, delta and diamond
+also over eps_r 5, 1 mS/m):
 
 - reference: the project's quarter-wave vertical, 40.96 m, radius 25 mm (make_scatter.py's TX vertical);
 - whip: 6 m, radius 5 mm;
 - flag: make_scatter.py's flag (8.5 m by 4.3 m, 1.5 m up, AWG 14, 900 ohm), in the x-z plane, fed at x = 0,
   favouring NEC's phi = 180 deg;
 - pair: two 6 m verticals 15 m apart on the x axis, base loads of 5 kohm, the one at x = 15 m driven at
-  -150 deg (make_scatter.py's pair), favouring phi = 0.
+  -150 deg (make_scatter.py's pair), favouring phi = 0;
+- pennant, delta, diamond: the terminated loop's other shapes (snrgain.antennas.termloop.loop_polygon's
+  triangle, delta and diamond), built as make_termloops.py builds them (the halves less a 0.1 m gap at each end,
+  one-segment bridges holding the feed and the resistor), sizes of the flag's order: a pennant 10 m by 5 m, a delta
+  9 m by 5 m, a diamond 10 m by 6 m, each 1.5 m up, AWG 14, terminated near the resistor of their deepest rear null
+  at 20 deg in termloops.json (800, 850, 875 ohm); in the x-z plane, fed at x = 0, favouring NEC's phi = 180 deg;
+  over both grounds.  Their sources reach 100 m (LOOP_DISTANCES_M), run with Debian's nec2c (/usr/bin; the patched
+  engine is not needed there: the packaged one gives the stored flag's and reference's fields to 100 m bit for bit,
+  and departs only at 200 m, beyond a wavelength).  ``python tests/nec/make_nearcompact.py pennant delta diamond``
+  works out those antennas' runs alone and puts them into the stored file in place of their old ones, the rest of it
+  left as it is (byte for byte).
 
-Each antenna is run at two segmentations (the second twice as fine; the flag at 0.3 and 0.15 m steps) and both
-are stored: their spread is NEC's own uncertainty.  Source points: at distances from the antenna's centre (the
-whip's and reference's base, the flag's and pair's middle), toward the front, side and back (the whip at NEC
-phi = 45 deg), at heights 2, 4, 6 and 10 m; nec2c's near fields (complex E, east, north, up, V/m for 1 V at the
+Each antenna is run at two segmentations (the second twice as fine; the flag and the other loops at 0.3 and 0.15 m
+steps) and both are stored: their spread is NEC's own uncertainty.  Source points: at distances from the antenna's
+centre (the whip's and reference's base, the loops' and pair's middle), toward the front, side and back (the whip at
+NEC phi = 45 deg), at heights 2, 4, 6 and 10 m; nec2c's near fields (complex E, east, north, up, V/m for 1 V at the
 feed) are stored per point.  NEC's x is east and y north (NEC's phi from +x counterclockwise: compass 90 - phi).
 """
 
@@ -62,6 +74,15 @@ REFERENCE = {"height_m": 299.792458 / FREQ_MHZ / 4, "radius_m": 0.025, "segments
 WHIP = {"height_m": 6.0, "radius_m": 0.005, "segments": [6, 12]}
 FLAG = {"width_m": 8.5, "loop_height_m": 4.3, "height_m": 1.5, "termination_ohm": 900.0, "steps_m": [0.3, 0.15]}
 PAIR = {"height_m": 6.0, "spacing_m": 15.0, "load_ohm": 5000.0, "phase_deg": -150.0, "segments": [6, 12]}
+LOOPS = {
+    "pennant": {"shape": "triangle", "width_m": 10.0, "loop_height_m": 5.0, "height_m": 1.5, "termination_ohm": 800.0},
+    "delta": {"shape": "delta", "width_m": 9.0, "loop_height_m": 5.0, "height_m": 1.5, "termination_ohm": 850.0},
+    "diamond": {"shape": "diamond", "width_m": 10.0, "loop_height_m": 6.0, "height_m": 1.5, "termination_ohm": 875.0},
+}
+for _loop in LOOPS.values():
+    _loop["steps_m"] = [0.3, 0.15]
+LOOP_DISTANCES_M = [10.0, 12.5, 15.0, 30.0, 60.0, 100.0]
+PACKAGED_ENGINE = "/usr/bin/nec2c"
 # name: (centre [x, y], forward NEC phi [deg], places {name: NEC phi of the source seen from the centre}, distances)
 LAYOUT = {
     "reference": ((0.0, 0.0), 0.0, {"any": 45.0}, [5.0, 10.0, 15.0, 30.0, 50.0, 60.0, 100.0, 200.0]),
@@ -78,6 +99,10 @@ LAYOUT = {
         {"front": 0.0, "side": 90.0, "back": 180.0},
         [10.0, 15.0, 30.0, 60.0, 100.0, 200.0],
     ),
+    **{
+        name: ((a["width_m"] / 2, 0.0), 180.0, {"front": 180.0, "side": 90.0, "back": 0.0}, LOOP_DISTANCES_M)
+        for name, a in LOOPS.items()
+    },
 }
 
 
@@ -102,8 +127,8 @@ def antenna_cards(name: str, fine: int) -> tuple[list[str], list[str], list[str]
         ph = np.radians(p["phase_deg"])
         ex = ["EX 0 1 1 0 1 0", f"EX 0 2 1 0 {np.cos(ph):.6f} {np.sin(ph):.6f}"]
         return gw, ld, ex, "GE 1"
-    f = FLAG
-    upper, lower = loop_polygon("rectangle", f["width_m"], f["loop_height_m"], f["height_m"])
+    f = FLAG if name == "flag" else LOOPS[name]
+    upper, lower = loop_polygon(f.get("shape", "rectangle"), f["width_m"], f["loop_height_m"], f["height_m"])
     up, lo = _trim(upper, GAP_M), _trim(lower, GAP_M)
     wires = []
     for path in (up, lo):
@@ -191,42 +216,73 @@ def source_wire_deck(distance_m: float, ground) -> str:
     return "\n".join(lines) + "\n"
 
 
-def main():
+def antenna_runs(name: str, gname: str, work: Path, engine: str) -> list[dict]:
+    """The coarse and fine runs of an antenna over a ground, as stored (the coarse deck written to cases/)."""
+    pts = points(name)
+    runs = []
+    for fine in (0, 1):
+        text = run_nec2c(deck(name, fine, GROUNDS[gname], pts), work, "near", engine)
+        if fine == 0:
+            (HERE / "cases" / f"near-{name}-{gname}.nec").write_text(deck(name, 0, GROUNDS[gname], pts))
+        fields = near_fields(text)
+        assert len(fields) == len(pts)
+        run = {
+            "antenna": name,
+            "ground": gname,
+            "segmentation": ["coarse", "fine"][fine],
+            "deck": f"cases/near-{name}-{gname}.nec" if fine == 0 else "the same, segments doubled",
+            "forward": far_field(text),
+            "points": [{**p, "e": e} for p, e in zip(pts, fields)],
+        }
+        if name in LOOPS:
+            run["engine"] = f"{engine} (Debian's nec2c 1.3, unpatched: the points reach {max(LOOP_DISTANCES_M):g} m)"
+        runs.append(run)
+        print(name, gname, fine, len(pts), flush=True)
+    return runs
+
+
+def _layout_entry(name: str) -> dict:
+    c, f, p, _ = LAYOUT[name]
+    return {"centre_m": list(c), "forward_phi_deg": f, "places_phi_deg": p}
+
+
+def main(only: list[str]):
+    """Every run (``only`` empty), or only the named loops' runs put into the stored file in place of their old
+    ones (the rest of the file as it was)."""
+    (HERE / "cases").mkdir(exist_ok=True)
+    loop_runs = [(n, g) for n in LOOPS for g in ("loam", "dry")]
+    if only:
+        unknown = sorted(set(only) - set(LOOPS))
+        if unknown:
+            raise SystemExit(f"only the loops can be worked alone ({', '.join(LOOPS)}); got {', '.join(unknown)}")
+        out = json.loads((HERE / "nearcompact.json").read_text())
+        out["runs"] = [r for r in out["runs"] if r["antenna"] not in only]
+        for name in only:
+            out["antennas"][name] = LOOPS[name]
+            out["layout"][name] = _layout_entry(name)
+        with tempfile.TemporaryDirectory() as tmp:
+            for name, gname in loop_runs:
+                if name in only:
+                    out["runs"] += antenna_runs(name, gname, Path(tmp), PACKAGED_ENGINE)
+        (HERE / "nearcompact.json").write_text(json.dumps(out, indent=0) + "\n")
+        return
     engine = patched_engine()
     out = {
         "engine": "nec2c 1.3 with the fbar() fix (tests/nec/build_nec2c.sh)",
         "freq_mhz": FREQ_MHZ,
         "forward_elevation_deg": FORWARD_ELEVATION_DEG,
         "grounds": {k: {"permittivity": e, "conductivity_s_per_m": s} for k, (e, s) in GROUNDS.items()},
-        "antennas": {"reference": REFERENCE, "whip": WHIP, "flag": FLAG, "pair": PAIR},
-        "layout": {
-            k: {"centre_m": list(c), "forward_phi_deg": f, "places_phi_deg": p} for k, (c, f, p, _) in LAYOUT.items()
-        },
+        "antennas": {"reference": REFERENCE, "whip": WHIP, "flag": FLAG, "pair": PAIR, **LOOPS},
+        "layout": {k: _layout_entry(k) for k in LAYOUT},
         "runs": [],
     }
-    (HERE / "cases").mkdir(exist_ok=True)
-    runs = [(n, g) for n in LAYOUT for g in ("loam",)] + [("reference", "dry"), ("whip", "dry")]
+    runs = [(n, "loam") for n in LAYOUT if n not in LOOPS] + [("reference", "dry"), ("whip", "dry")]
     with tempfile.TemporaryDirectory() as tmp:
         work = Path(tmp)
         for name, gname in runs:
-            pts = points(name)
-            for fine in (0, 1):
-                text = run_nec2c(deck(name, fine, GROUNDS[gname], pts), work, "near", engine)
-                if fine == 0:
-                    (HERE / "cases" / f"near-{name}-{gname}.nec").write_text(deck(name, 0, GROUNDS[gname], pts))
-                fields = near_fields(text)
-                assert len(fields) == len(pts)
-                out["runs"].append(
-                    {
-                        "antenna": name,
-                        "ground": gname,
-                        "segmentation": ["coarse", "fine"][fine],
-                        "deck": f"cases/near-{name}-{gname}.nec" if fine == 0 else "the same, segments doubled",
-                        "forward": far_field(text),
-                        "points": [{**p, "e": e} for p, e in zip(pts, fields)],
-                    }
-                )
-                print(name, gname, fine, len(pts), flush=True)
+            out["runs"] += antenna_runs(name, gname, work, engine)
+        for name, gname in loop_runs:
+            out["runs"] += antenna_runs(name, gname, work, PACKAGED_ENGINE)
         check = {}
         for d in (10.0, 60.0):
             text = run_nec2c(source_wire_deck(d, GROUNDS["loam"]), work, "wire", engine)
@@ -240,4 +296,4 @@ def main():
 
 
 if __name__ == "__main__":
-    main()
+    main(sys.argv[1:])

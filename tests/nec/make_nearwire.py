@@ -8,12 +8,12 @@ end) at 20 deg elevation, gives by reciprocity what a small dipole source at eac
 the wire's own forward plane wave delivers.  The feed current drops out of that ratio, and with it whatever sits in
 series with the feed: the feed lead's wire-to-ground junction (make_deembedded.py) among them.  The far lead's
 junction does not drop out: it adds to the termination and so shapes the current (the reflected wave).  Each deck
-therefore takes it out at both ends, as make_deembedded.py does but as an impedance, not a resistance alone
+therefore takes it out at both ends as an impedance, not a resistance alone (make_deembedded.py now does the same)
 (``junction``: the input impedance of a stub of the same lead on the Sommerfeld ground less the same stub's on a
 perfect ground, which is the short monopole's own; series loads LD 4 subtract it; the model's connections are then
 zero ohm).  The junction is reactive: -15 ohm with its 62 ohm for a 2 m lead over 5 mS/m, -146 with 244 over
 1 mS/m, -175 with 615 and -1478 with 2421 for a 0.2 m lead.  Three more coarse runs per wire: the junction's
-resistance alone taken out ("-resistive", make_deembedded.py's way), NEC's junction kept ("-raw"), and the far
+resistance alone taken out ("-resistive", make_deembedded.py's former way), NEC's junction kept ("-raw"), and the far
 end's junction taken out alone ("-feedkept", a check of the argument above: the same ratios within 0.0035 dB).
 Where the reactance is large against the termination (1 mS/m; the low wire) the resistive runs leave NEC's far
 end reflecting up to 0.86 of the current against the 300 ohm's 0.24 (``line_fit``, test_near_wire.py).
@@ -77,9 +77,8 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parents[1]))
 
-from tests.nec.make_deembedded import stub_deck  # noqa: E402
 from tests.nec.make_nearcompact import far_field, near_fields  # noqa: E402
-from tests.nec.necdeck import run_nec2c  # noqa: E402
+from tests.nec.necdeck import junction_impedance, run_nec2c  # noqa: E402
 
 FREQ_MHZ = 1.83
 WAVELENGTH_M = 299.792458 / FREQ_MHZ
@@ -158,22 +157,18 @@ def points(w: dict) -> list[dict]:
 
 def junction(w: dict, ground, nl: int, work: Path) -> complex:
     """NEC's wire-to-ground junction at a lead of the wire's height and ``nl`` segments [ohm]: the input impedance of
-    that lead alone standing on the Sommerfeld ground (make_deembedded.stub_deck) less the same stub's over a
-    perfect ground (GN 1, no junction), which takes out the short monopole's own reactance and leaves the
-    junction's resistance and reactance (make_deembedded.py subtracts the resistance alone)."""
-    out = []
-    for gn in (f"GN 2 0 0 0 {ground[0]:g} {ground[1]:g}", "GN 1"):
-        stub = stub_deck(
-            freq_mhz=FREQ_MHZ,
-            height_m=w["height_m"],
-            segments=nl,
-            radius_m=AWG14_M,
-            permittivity=ground[0],
-            conductivity_s_per_m=ground[1],
-        )
-        stub = re.sub(r"^GN .*$", gn, stub, flags=re.M)
-        out.append(complex(*feed_impedance(run_nec2c(stub, work, "stub"))))
-    return out[0] - out[1]
+    that lead alone standing on the Sommerfeld ground less the same stub's over a perfect ground (GN 1, no junction),
+    which takes out the short monopole's own reactance and leaves the junction's resistance and reactance
+    (necdeck.junction_impedance, which make_deembedded.py uses too)."""
+    return junction_impedance(
+        freq_mhz=FREQ_MHZ,
+        height_m=w["height_m"],
+        segments=nl,
+        radius_m=AWG14_M,
+        permittivity=ground[0],
+        conductivity_s_per_m=ground[1],
+        workdir=work,
+    )
 
 
 def feed_impedance(text: str) -> list[float]:

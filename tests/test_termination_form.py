@@ -1,0 +1,116 @@
+"""The resistor searched under the sky (snrgain.model.steering.TerminationScore): its scores from the form fitted on
+three resistors agree with a full pass of the products for every resistor, for each terminated family, with a
+placed source and the TX vertical as a scatterer; and a form that does not hold falls back to the full passes."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from snrgain.antennas.base import variant
+from snrgain.model import steering
+from snrgain.model.products import products
+from snrgain.model.scatter import bare, beside, with_structures
+from tests.conftest import MINIMAL
+
+CANDIDATES = """
+[[noise.local]]
+name = "dimmer"
+position = ["-30 m", "120 m"]
+height = "3 m"
+level = "S6"
+
+[[candidate]]
+name = "bev"
+family = "beverage"
+position = [60, -150]
+length = "200 m"
+height = "2.5 m"
+bearing = 45
+
+[[candidate]]
+name = "bog"
+family = "bog"
+position = [80, -80]
+length = "80 m"
+bearing = 45
+
+[[candidate]]
+name = "flag"
+family = "terminated-loop"
+position = [120, 90]
+width = "8 m"
+loop_height = "4 m"
+height = "1.5 m"
+bearing = 45
+termination = "auto"
+"""
+
+
+def _scenario(tmp_path, candidates=CANDIDATES):
+    from snrgain.model import pipeline as P
+
+    text = MINIMAL.replace('[[candidate]]\nname = "iso"\nfamily = "isotropic"\n', candidates)
+    text = text.replace("utc_hours = [3]", "utc_hours = [1, 3, 22]").replace(
+        'height = "20 m"', 'height = "20 m"\nposition = [0, 0]'
+    )
+    path = tmp_path / "s.toml"
+    path.write_text(text)
+    sc = P.load(path)
+    grid = P.sky_grid(sc)
+    sc = with_structures(P.resolve_sources(sc))
+    return sc, grid, P.build_sky(sc, grid)
+
+
+def _score(sc, grid, skies, k):
+    ant = sc.antennas[k]
+    put = (lambda a, s=ant.scatterers: beside(a, s)) if bare(ant) is not ant else (lambda a: a)
+    ref = products(sc, [sc.antennas[0]], grid, skies)
+    ti = steering.nearest_target(sc, ant.params.bearing)
+    return steering.TerminationScore(sc, grid, skies, ref, put, k, ti), ref, put, ti
+
+
+@pytest.mark.parametrize("name", ["bev", "bog", "flag"])
+def test_the_fitted_form_gives_the_full_passes_scores(tmp_path, name):
+    sc, grid, skies = _scenario(tmp_path)
+    k = [a.name for a in sc.antennas].index(name)
+    score, ref, put, ti = _score(sc, grid, skies, k)
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    first = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.4, 0.77, 1.3, 2.2])]
+    got = np.concatenate([score(first), score(later)])
+    assert score.model is not None and not score.direct  # the form held: the later resistors cost no products
+    want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in first + later], k, ti)
+    assert np.max(np.abs(got - want)) < 1e-6  # dB
+
+
+def test_a_form_that_does_not_hold_falls_back_to_the_full_passes(tmp_path, monkeypatch):
+    sc, grid, skies = _scenario(tmp_path)
+    k = [a.name for a in sc.antennas].index("bev")
+    score, ref, put, ti = _score(sc, grid, skies, k)
+    formed = steering.TerminationScore._formed
+    monkeypatch.setattr(steering.TerminationScore, "_formed", lambda self, v: formed(self, v) * (1 + 1e-5))
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    got = score(variants)
+    assert score.direct and score.model is None
+    want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants], k, ti)
+    np.testing.assert_array_equal(got, want)
+
+
+def test_a_wire_with_a_feed_line_is_worked_in_full(tmp_path):
+    # A feed line's share of the temperatures is not checked against the form: every resistor is worked in full.
+    text = CANDIDATES.replace(
+        'bearing = 45\n\n[[candidate]]\nname = "bog"',
+        'bearing = 45\nfeed_line = { to = ["0 m", "0 m"], height = "1 m" }\n\n[[candidate]]\nname = "bog"',
+    )
+    assert "feed_line" in text
+    sc, grid, skies = _scenario(tmp_path, text)
+    k = [a.name for a in sc.antennas].index("bev")
+    score, ref, put, ti = _score(sc, grid, skies, k)
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    got = score(variants)
+    assert score.direct
+    want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants], k, ti)
+    np.testing.assert_array_equal(got, want)
