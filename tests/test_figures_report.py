@@ -432,3 +432,26 @@ def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_it
         with drawing.Drawer("svg"):
             raise ValueError("bad scenario")
     assert not multiprocessing.active_children()
+
+
+def test_figures_drawn_on_blanks_made_ahead_are_the_figures_made_then(results, monkeypatch):
+    # plots.prepare_blanks makes the figures' empty axes before the results (in the figures' process, while the
+    # command evaluates); a figure drawn on one must be the figure drawn on axes made when it is drawn, byte for
+    # byte, and each blank is taken once (the kinds a scenario draws whatever its results: blank_kinds).
+    from snrgain.outputs import drawing
+
+    monkeypatch.setattr(plots, "_BLANKS", {})
+    makers = [
+        lambda: plots.azimuth_pattern(results, target_index=0),
+        lambda: plots.elevation_pattern(results, target_index=0),
+        lambda: plots.snr_over_hours(results),
+    ]
+    fresh = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
+    plots.prepare_blanks(plots.blank_kinds(len(results.targets)))
+    made = sum(len(v) for v in plots._BLANKS.values())
+    assert made == 2 * len(results.targets) + 1
+    blanks = [fig for kind in plots._BLANKS.values() for fig, _ in kind]
+    drawn = [make() for make in makers]
+    assert all(fig in blanks for fig in drawn)  # each drawn on a blank made ahead
+    assert sum(len(v) for v in plots._BLANKS.values()) == made - len(makers)
+    assert [drawing.figure_bytes(fig, "png", **plots.SAVE_OPTIONS) for fig in drawn] == fresh

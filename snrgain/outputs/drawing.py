@@ -437,6 +437,21 @@ class Drawer:
         except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
             pass
 
+    def prepare(self, fn: Callable, *args) -> None:
+        """Have the helper call ``fn(*args)`` once it is ready, before the results (to make what every figure of the
+        kind needs: :func:`snrgain.outputs.plots.prepare_blanks`); its workers inherit what it made.  Nothing where
+        there is no helper or where the call cannot be pickled; a call that fails is let go."""
+        if self._proc is None:
+            return
+        try:
+            payload = pickle.dumps(("prepare", fn, args), protocol=pickle.HIGHEST_PROTOCOL)
+        except (pickle.PicklingError, TypeError, AttributeError):
+            return
+        try:
+            self._conn.send_bytes(payload)
+        except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
+            pass
+
     def draw(
         self,
         jobs: Sequence[tuple[Callable, str, dict]],
@@ -487,6 +502,12 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
             message = pickle.loads(conn.recv_bytes())
         except (EOFError, OSError):  # the command ended without drawing
             return
+        if message[0] == "prepare":
+            try:
+                message[1](*message[2])
+            except Exception:  # only time lost: the figures make their own
+                pass
+            continue
         if message[0] != "ahead":
             break
         _, key, (make, kind, savefig) = message

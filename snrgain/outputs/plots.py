@@ -59,32 +59,84 @@ def _axes(
     sharey: bool = False,
 ):
     """The figure and axes to draw on: those given (one Axes, or a sequence of n), or new ones on a new Figure
-    (n panels in a column, or in a row with ``columns``)."""
+    (n panels in a column, or in a row with ``columns``): one made ready beforehand (:func:`prepare_blanks`) where
+    there is one of that kind."""
     if ax is None:
-        from matplotlib.backends.backend_agg import FigureCanvasAgg
-        from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
-
-        # At the files' resolution, on an Agg canvas of its own: the layout (tight_layout) and the PNG's one draw
-        # then measure every text with the same renderer, once (snrgain.outputs.drawing.save_figure).
-        fig = Figure(figsize=figsize, dpi=SAVE_OPTIONS["dpi"])
-        FigureCanvasAgg(fig)
-        if polar:
-            return fig, [fig.add_subplot(projection="polar")]
-        shape = (1, n) if columns else (n, 1)
-        grid = fig.subplots(
-            *shape,
-            squeeze=False,
-            sharex=sharex,
-            sharey=sharey,
-            gridspec_kw={"width_ratios": width_ratios} if width_ratios else None,
-        )
-        return fig, list(grid.ravel())
+        key = _blank_key(n, polar, figsize, columns, width_ratios, sharex, sharey)
+        ready = _BLANKS.get(key)
+        if ready:
+            return ready.pop()
+        return _new_axes(*key)
     axes = list(ax) if isinstance(ax, (Sequence, np.ndarray)) else [ax]
     if len(axes) != n:
         raise ValueError(f"ax: this figure draws {n} panel(s); got {len(axes)} axes")
     if polar and axes[0].name != "polar":
         raise ValueError("ax: this figure needs polar axes (projection='polar')")
     return axes[0].figure, axes
+
+
+_BLANKS: dict[tuple, list] = {}
+"""Figures with their empty axes, made ahead by kind (:func:`prepare_blanks`), each taken once by :func:`_axes`."""
+
+
+def _blank_key(n, polar, figsize, columns, width_ratios, sharex, sharey) -> tuple:
+    return (
+        int(n),
+        bool(polar),
+        tuple(float(v) for v in figsize),
+        bool(columns),
+        None if width_ratios is None else tuple(float(v) for v in width_ratios),
+        bool(sharex),
+        bool(sharey),
+    )
+
+
+def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
+
+    # At the files' resolution, on an Agg canvas of its own: a PNG is then drawn once, at its size
+    # (snrgain.outputs.drawing.save_figure).
+    fig = Figure(figsize=figsize, dpi=SAVE_OPTIONS["dpi"])
+    FigureCanvasAgg(fig)
+    if polar:
+        return fig, [fig.add_subplot(projection="polar")]
+    shape = (1, n) if columns else (n, 1)
+    grid = fig.subplots(
+        *shape,
+        squeeze=False,
+        sharex=sharex,
+        sharey=sharey,
+        gridspec_kw={"width_ratios": list(width_ratios)} if width_ratios else None,
+    )
+    return fig, list(grid.ravel())
+
+
+def blank_kinds(n_targets: int) -> list[tuple[dict, int]]:
+    """The new figures' kinds (:func:`_axes`' keywords) that a scenario of ``n_targets`` targets draws whatever its
+    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels."""
+    return [
+        ({"polar": True, "figsize": (7.5, 7.0)}, n_targets),
+        ({"figsize": (8.0, 4.8)}, n_targets),
+        ({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1),
+    ]
+
+
+def prepare_blanks(kinds) -> None:
+    """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
+    take (the figures' process does it while the command evaluates: making the axes and their ticks is a good part
+    of a figure's time).  A blank is the figure a function would make itself, so nothing drawn changes (tested)."""
+    for kw, count in kinds:
+        key = _blank_key(
+            kw.get("n", 1),
+            kw.get("polar", False),
+            kw.get("figsize", (8.0, 5.0)),
+            kw.get("columns", False),
+            kw.get("width_ratios"),
+            kw.get("sharex", False),
+            kw.get("sharey", False),
+        )
+        _BLANKS.setdefault(key, []).extend(_new_axes(*key) for _ in range(count))
 
 
 def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
