@@ -285,31 +285,97 @@ def test_workers_setting_is_checked(monkeypatch):
     assert drawing.workers(4) == 1
 
 
-@pytest.mark.parametrize("fmt", ["png", "svg"])
-def test_saving_with_one_draw_writes_the_bytes_savefig_writes(results, fmt, monkeypatch):
-    # drawing.save_figure finds the box of savefig(bbox_inches="tight") without savefig's first draw; the file must
-    # be the one savefig writes, byte for byte: a polar plot, an equal-aspect plan, a colour bar (an axes locator),
-    # legends outside the axes.
+def test_saving_an_svg_with_one_draw_writes_the_picture_savefig_writes(results, monkeypatch):
+    # drawing.save_figure draws an SVG once, widened by a margin, and sets its view box to the artists' box measured
+    # by the renderer that drew them; savefig(bbox_inches="tight") measures first and draws again.  The files must
+    # hold the same picture: the same size to the printed digit, the same elements, each drawing the same (the
+    # coordinates counted from another corner); else, as for another figure, savefig's own bytes.
+    import re
+
     import matplotlib as mpl
     from matplotlib.figure import Figure
 
     from snrgain.outputs import drawing
 
     monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")  # SVG ids from a fixed salt, so two files compare
-    opts = {**plots.SAVE_OPTIONS, "metadata": {"Date": None}} if fmt == "svg" else dict(plots.SAVE_OPTIONS)
+    opts = {"bbox_inches": "tight", "metadata": {"Date": None}}
     draws = []
     real_draw = Figure.draw
     monkeypatch.setattr(Figure, "draw", lambda fig, renderer: draws.append(1) or real_draw(fig, renderer))
+    size = re.compile(r'<svg[^>]* width="([^"]*)" height="([^"]*)" viewBox="([^"]*)"')
+    # a polar plot, an equal-aspect plan, a colour bar and a rasterized mesh, legends outside the axes
     for make in (plots.azimuth_pattern, plots.site_plan, plots.noise_sky, plots.ranking_chart):
         fig = make(results)
         own = io.BytesIO()
         del draws[:]
-        drawing.save_figure(fig, own, fmt, **opts)
+        drawing.save_figure(fig, own, "svg", **opts)
         assert len(draws) == 1, make.__name__
         theirs = io.BytesIO()
-        fig.savefig(theirs, format=fmt, **{k: v for k, v in opts.items() if fmt == "png" or k != "pil_kwargs"})
+        fig.savefig(theirs, format="svg", **opts)
         assert len(draws) == 3  # savefig's own way draws twice
-        assert own.getvalue() == theirs.getvalue(), make.__name__
+        a, b = own.getvalue().decode(), theirs.getvalue().decode()
+        (wa, ha, view_a), (wb, hb, view_b) = size.search(a).groups(), size.search(b).groups()
+        assert (wa, ha) == (wb, hb), make.__name__
+        assert view_a.split()[2:] == view_b.split()[2:] and view_b.startswith("0 0 ")
+        assert re.findall(r"<(\w+)", a) == re.findall(r"<(\w+)", b), make.__name__  # the same elements in order
+        glyphs = re.compile(r'<path id="[^"]*" d="[^"]*"')  # the glyphs' and markers' own shapes, not placed
+        assert glyphs.findall(a) == glyphs.findall(b), make.__name__
+    # Another canvas than the figure's own (a figure made elsewhere): savefig's own bytes.
+    from matplotlib.backends.backend_svg import FigureCanvasSVG
+
+    fig = plots.elevation_pattern(results)
+    FigureCanvasSVG(fig)
+    own, theirs = io.BytesIO(), io.BytesIO()
+    drawing.save_figure(fig, own, "svg", **opts)
+    fig.savefig(theirs, format="svg", **opts)
+    assert own.getvalue() == theirs.getvalue()
+
+
+def _pixels(png: bytes):
+    import numpy as np
+    from PIL import Image
+
+    return np.asarray(Image.open(io.BytesIO(png)).convert("RGB")).astype(int)
+
+
+def test_saving_a_png_with_one_draw_shows_what_savefig_shows(results, monkeypatch):
+    # A PNG is drawn once, on a canvas with a margin, and cut to what was drawn there (drawing._png_one_draw);
+    # savefig(bbox_inches="tight") measures first and draws again, cut to the artists' boxes at a fraction of a pixel
+    # elsewhere.  The two pictures must agree: the same size within a few pixels (nothing cut off, no more room),
+    # and, at the best whole-pixel shift, the same pixels but for the edges of text and lines (anti-aliasing).
+    import numpy as np
+    from matplotlib.figure import Figure
+
+    from snrgain.outputs import drawing
+
+    draws = []
+    real_draw = Figure.draw
+    monkeypatch.setattr(Figure, "draw", lambda fig, renderer: draws.append(1) or real_draw(fig, renderer))
+    makers = (plots.azimuth_pattern, plots.site_plan, plots.noise_sky, plots.ranking_chart, plots.snr_over_hours)
+    for make in makers:
+        fig = make(results)
+        own = io.BytesIO()
+        del draws[:]
+        drawing.save_figure(fig, own, "png", **plots.SAVE_OPTIONS)
+        assert len(draws) == 1, make.__name__
+        theirs = io.BytesIO()
+        fig.savefig(theirs, format="png", **plots.SAVE_OPTIONS)
+        a, b = _pixels(own.getvalue()), _pixels(theirs.getvalue())
+        assert np.all(np.abs(np.subtract(a.shape, b.shape)) <= 8), (make.__name__, a.shape, b.shape)
+        h, w = min(a.shape[0], b.shape[0]) - 8, min(a.shape[1], b.shape[1]) - 8
+        diffs = [
+            np.abs(a[4 + dy : 4 + dy + h, 4 + dx : 4 + dx + w] - b[4 : 4 + h, 4 : 4 + w]).max(axis=2)
+            for dy in range(-4, 5)
+            for dx in range(-4, 5)
+        ]
+        best = min(diffs, key=lambda d: d.mean())
+        assert best.mean() < 5 and np.mean(best > 96) < 0.03, (make.__name__, best.mean(), np.mean(best > 96))
+    # At another resolution than the figure's the one draw does not apply: savefig's own file, byte for byte.
+    fig = plots.elevation_pattern(results)
+    own, theirs = io.BytesIO(), io.BytesIO()
+    drawing.save_figure(fig, own, "png", **{**plots.SAVE_OPTIONS, "dpi": 72})
+    fig.savefig(theirs, format="png", **{**plots.SAVE_OPTIONS, "dpi": 72})
+    assert own.getvalue() == theirs.getvalue()
 
 
 def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_its_block(results, monkeypatch):
@@ -339,6 +405,24 @@ def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_it
         there = drawer.draw(jobs, done=lambda: counted.append(1), cost=[1.0, 2.0, 1.5])
     assert there == here and len(counted) == len(jobs)
     assert not multiprocessing.active_children()
+    # The site plan handed over before the results (Drawer.ahead: the scenario's plan alone, with its antennas'
+    # looks, which are the results'): its bytes are taken for the job named, which is not drawn again (here a job
+    # that would fail); one the helper could not draw is drawn with the others.
+    from snrgain.outputs.siteplan import plan_of
+    from snrgain.scenario import load
+
+    plan = plan_of(load(SCENARIOS / "alder-hollow.toml"))
+    assert plots.plan_looks(plan) == plots.looks_of(results)
+    ahead_job = (partial(plots.scenario_plan, plan), "png", plots.SAVE_OPTIONS)
+    planned = drawing.draw_all([(partial(plots.site_plan, results, plan=plan), "png", plots.SAVE_OPTIONS)])
+    failing = (partial(plots.azimuth_pattern, results, target_index=99), "png", plots.SAVE_OPTIONS)
+    counted = []
+    with drawing.Drawer("png") as drawer:
+        drawer.ahead("plan", ahead_job)
+        drawer.ahead("broken", failing)
+        there = drawer.draw([jobs[0], failing, jobs[2]], ahead={1: "plan", 2: "broken"}, done=lambda: counted.append(1))
+    assert there == [here[0], planned[0], here[2]] and len(counted) == 3
+    assert not multiprocessing.active_children()
     # A figure that fails: its error is the command's; an evaluation that fails: the process ends with the block.
     with pytest.raises(IndexError):
         with drawing.Drawer("png") as drawer:
@@ -348,3 +432,26 @@ def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_it
         with drawing.Drawer("svg"):
             raise ValueError("bad scenario")
     assert not multiprocessing.active_children()
+
+
+def test_figures_drawn_on_blanks_made_ahead_are_the_figures_made_then(results, monkeypatch):
+    # plots.prepare_blanks makes the figures' empty axes before the results (in the figures' process, while the
+    # command evaluates); a figure drawn on one must be the figure drawn on axes made when it is drawn, byte for
+    # byte, and each blank is taken once (the kinds a scenario draws whatever its results: blank_kinds).
+    from snrgain.outputs import drawing
+
+    monkeypatch.setattr(plots, "_BLANKS", {})
+    makers = [
+        lambda: plots.azimuth_pattern(results, target_index=0),
+        lambda: plots.elevation_pattern(results, target_index=0),
+        lambda: plots.snr_over_hours(results),
+    ]
+    fresh = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
+    plots.prepare_blanks(plots.blank_kinds(len(results.targets)))
+    made = sum(len(v) for v in plots._BLANKS.values())
+    assert made == 2 * len(results.targets) + 1
+    blanks = [fig for kind in plots._BLANKS.values() for fig, _ in kind]
+    drawn = [make() for make in makers]
+    assert all(fig in blanks for fig in drawn)  # each drawn on a blank made ahead
+    assert sum(len(v) for v in plots._BLANKS.values()) == made - len(makers)
+    assert [drawing.figure_bytes(fig, "png", **plots.SAVE_OPTIONS) for fig in drawn] == fresh

@@ -42,6 +42,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
 
     The file has no scripts and loads nothing from the network; it prints cleanly.
     """
+    from snrgain.outputs import plots
     from snrgain.outputs import report as rep
     from snrgain.outputs.drawing import Drawer
 
@@ -49,13 +50,20 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
     with Drawer("svg", modules=_RESULT_MODULES) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
-            results, plan = _evaluate(
-                scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
-            )
+            sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
+            ahead = _plan_ahead(drawer, plan, "svg", {"bbox_inches": "tight"}, len(sc.targets))
+            results = _evaluated(sc, allow_long)
         for w in results.warnings:
             click.echo(f"warning: {w}", err=True)
+
+        def draw(jobs, **kw):
+            plans = [k for k, (make, _, _) in enumerate(jobs) if getattr(make, "func", None) is plots.site_plan]
+            return drawer.draw(
+                jobs, ahead={k: ahead for k in plans} if ahead and _same_looks(results, plan) else None, **kw
+            )
+
         with progress(None, "report: drawing the figures"):
-            html = rep.render(results, plan=plan, draw=drawer.draw)
+            html = rep.render(results, plan=plan, draw=draw)
     write_output(output, html, overwrite=overwrite)
 
 
@@ -71,10 +79,8 @@ _RESULT_MODULES = (
 objects the results hold (unpickling them would import them then)."""
 
 
-def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None, band=None):
-    """The scenario's results and its site plan (:func:`snrgain.outputs.siteplan.plan_of`, from the one load);
-    ``band``: the band of a scenario of several."""
-    from snrgain.model.pipeline import evaluate
+def _load(scenario, *, nside, p372_dir, reference=None, band=None):
+    """The loaded scenario and its site plan (:func:`snrgain.outputs.siteplan.plan_of`)."""
     from snrgain.outputs.siteplan import plan_of
     from snrgain.scenario import load, read_source
     from snrgain.scenario.bands import one_band
@@ -89,7 +95,35 @@ def _evaluate(scenario, *, nside, p372_dir, allow_long, reference=None, band=Non
         label=label,
         reference=reference,
     )
-    return evaluate(sc, allow_long=allow_long), plan_of(sc, data=data)
+    return sc, plan_of(sc, data=data)
+
+
+def _evaluated(sc, allow_long):
+    from snrgain.model.pipeline import evaluate
+
+    return evaluate(sc, allow_long=allow_long)
+
+
+def _plan_ahead(drawer, plan, fmt: str, savefig: dict, n_targets: int) -> str | None:
+    """Have the figures' process make the figures' empty axes (:func:`snrgain.outputs.plots.prepare_blanks`) and
+    draw the site plan (it needs no results: :func:`snrgain.outputs.plots.scenario_plan`) while the scenario is
+    evaluated; the key the plan is drawn under, None where there is no plan (or none is asked for)."""
+    from functools import partial
+
+    from snrgain.outputs import plots
+
+    drawer.prepare(plots.prepare_blanks, plots.blank_kinds(n_targets))
+    if plan is None or not plots.has_site_plan(None, plan=plan):
+        return None
+    drawer.ahead("plan", (partial(plots.scenario_plan, plan), fmt, savefig))
+    return "plan"
+
+
+def _same_looks(results, plan) -> bool:
+    """Whether the plan drawn ahead looks as the results' would (the same antennas, families and order)."""
+    from snrgain.outputs import plots
+
+    return plots.plan_looks(plan) == plots.looks_of(results)
 
 
 @click.command("figures")
@@ -127,9 +161,9 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
     with Drawer(fmt, modules=_RESULT_MODULES) as drawer:
         with progress(None, f"figures: evaluating {scenario}"):
-            results, plan = _evaluate(
-                scenario, nside=nside, p372_dir=p372_dir, allow_long=allow_long, reference=reference, band=band
-            )
+            sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
+            ahead = _plan_ahead(drawer, plan if "plan" in names else None, fmt, plots.SAVE_OPTIONS, len(sc.targets))
+            results = _evaluated(sc, allow_long)
         if "plan" in names and not plots.has_site_plan(results, plan=plan):
             if only:
                 raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
@@ -158,6 +192,9 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
                             [(partial(plots.FIGURES[n], results, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs],
                             done=step,
                             cost=[plots.FIGURE_COST[n] for _, n, _ in jobs],
+                            ahead={k: ahead for k, (_, n, _) in enumerate(jobs) if n == "plan"}
+                            if ahead and _same_looks(results, plan)
+                            else None,
                         )
                     )
                 Path(tmp_path).write_bytes(drawn[k])

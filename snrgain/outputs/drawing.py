@@ -13,8 +13,11 @@ inherit matplotlib, the fonts and the results.  The command itself never imports
 Where fork is not available (Windows, macOS' default), with one core, one figure, or ``SNRGAIN_WORKERS=1``, the
 figures are drawn one after the other in this process: the bytes are the same either way (tested).
 
-Each figure is saved as ``savefig(bbox_inches="tight")`` saves it, byte for byte, with one draw instead of two
-(:func:`save_figure`).
+Each figure is saved as ``savefig(bbox_inches="tight")`` saves it, with one draw instead of two
+(:func:`save_figure`): the figure is drawn with a margin round it and cut to what was drawn (PNG) or to the
+artists' box measured by the renderer that drew them (SVG).  The figures lay themselves out at fixed margins
+(snrgain.outputs.plots), not by measuring every text first.  A figure that needs no results (the site plan) is
+drawn by the helper while the command still evaluates (:meth:`Drawer.ahead`).
 """
 
 from __future__ import annotations
@@ -33,22 +36,31 @@ _JOBS: Sequence[tuple[Callable, str, dict]] = ()
 
 
 def figure_bytes(fig, fmt: str, **savefig) -> bytes:
-    """One figure serialised as PNG or SVG (:func:`save_figure`), closed afterwards."""
+    """One figure serialised as PNG or SVG (:func:`save_figure`).
+
+    The figure is left as it is, to be let go by the caller: ``Figure.clear()`` would build every axes' ticks
+    again (a tenth of a figure's time), and a figure that is not pyplot's is freed with its last reference."""
     buf = io.BytesIO()
-    try:
-        save_figure(fig, buf, fmt, **savefig)
-    finally:
-        fig.clear()
+    save_figure(fig, buf, fmt, **savefig)
     return buf.getvalue()
 
 
 def save_figure(fig, target, fmt: str, **savefig) -> None:
-    """``fig.savefig(target, format=fmt, **savefig)``: the same bytes, with ``bbox_inches="tight"`` found without
-    the draw savefig makes for it (:func:`tight_box`).  PNG-only keywords (``pil_kwargs``) are dropped for SVG."""
+    """``fig.savefig(target, format=fmt, **savefig)`` with one draw instead of two for ``bbox_inches="tight"``.
+
+    A PNG is drawn once with a margin and cut to what was drawn (:func:`_png_one_draw`), an SVG drawn once with a
+    margin and its view box set to the artists' box measured with the renderer that drew them
+    (:func:`_svg_one_draw`): the same pictures as savefig's.  Where those do not apply, the same bytes as savefig's,
+    the tight box found without savefig's first draw (:func:`tight_box`).  PNG-only keywords (``pil_kwargs``) are
+    dropped for SVG."""
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
     if fmt != "png":
         savefig.pop("pil_kwargs", None)
+    if fmt == "png" and _png_one_draw(fig, target, **savefig):
+        return
+    if fmt == "svg" and _svg_one_draw(fig, target, **savefig):
+        return
     engine = fig.get_layout_engine()
     if (
         savefig.get("bbox_inches") != "tight"
@@ -66,6 +78,159 @@ def save_figure(fig, target, fmt: str, **savefig) -> None:
     finally:
         if engine is not None:
             fig.set_layout_engine(engine)
+
+
+MARGIN_INCHES = 1.0
+"""Room drawn around a figure for what runs past its edges (an outside legend, a long title), which
+``bbox_inches="tight"`` keeps (:func:`_png_one_draw`)."""
+
+
+def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, pil_kwargs=None, **rest) -> bool:
+    """Write ``fig`` as ``savefig(target, format="png", dpi=dpi, bbox_inches="tight", ...)`` would, with one draw.
+
+    The figure is drawn once on its own Agg canvas widened by :data:`MARGIN_INCHES` on every side (as savefig
+    widens it for its tight box: the artists stay where they are, the figure's face fills the rest), and the
+    image is cut to what was drawn there (every pixel not of the face colour) and ``pad_inches`` around it.
+    savefig instead measures every artist's extent (a second pass over all of them) and draws again into a canvas
+    of that size: the same picture, cut to the ink instead of the text boxes (a few pixels tighter).
+
+    Only where that is the same picture: the figure on an Agg canvas at the file's ``dpi``, an opaque face, a
+    tight box asked for and nothing else of savefig's, and nothing drawn as far as the margin's edge (it could
+    run on past it).  Returns False, having written nothing, otherwise."""
+    import matplotlib as mpl
+    import numpy as np
+    from matplotlib import _tight_bbox
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+
+    if dpi is None:
+        dpi = mpl.rcParams["savefig.dpi"]
+    if dpi == "figure":
+        dpi = fig.dpi
+    engine = fig.get_layout_engine()
+    face = mpl.colors.to_rgba(fig.get_facecolor())
+    if (
+        rest
+        or bbox_inches != "tight"
+        or type(fig.canvas) is not FigureCanvasAgg
+        or dpi != fig.dpi
+        or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))  # one that acts at each draw
+        or mpl.rcParams["savefig.facecolor"] != "auto"
+        or mpl.rcParams["savefig.edgecolor"] != "auto"
+        or face[3] != 1
+        or not fig.patch.get_visible()
+    ):
+        return False
+    if pad_inches is None:
+        pad_inches = mpl.rcParams["savefig.pad_inches"]
+    canvas = fig.canvas
+    w, h = fig.get_size_inches()
+    m = MARGIN_INCHES
+    from matplotlib.transforms import Bbox
+
+    restore = _tight_bbox.adjust_bbox(fig, Bbox.from_extents(-m, -m, w + m, h + m), canvas.get_renderer())
+    try:
+        canvas.draw()
+        image = np.asarray(canvas.buffer_rgba())
+    finally:
+        restore()
+    packed = image.view(np.uint32)[..., 0]  # one 32-bit word a pixel
+    ink = packed != np.array(np.round(np.multiply(face, 255)), dtype=np.uint8).view(np.uint32)[0]
+    rows = np.flatnonzero(ink.any(axis=1))
+    cols = np.flatnonzero(ink.any(axis=0))
+    if not rows.size or rows[0] == 0 or cols[0] == 0 or rows[-1] == ink.shape[0] - 1 or cols[-1] == ink.shape[1] - 1:
+        return False  # nothing drawn, or something reaches the margin's edge
+    pad = int(round(pad_inches * dpi))
+    y0, y1 = max(rows[0] - pad, 0), min(rows[-1] + 1 + pad, ink.shape[0])
+    x0, x1 = max(cols[0] - pad, 0), min(cols[-1] + 1 + pad, ink.shape[1])
+    image = image[y0:y1, x0:x1]
+    _write_png(target, image, dpi, pil_kwargs)
+    return True
+
+
+def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=None, **rest) -> bool:
+    """Write ``fig`` as ``savefig(target, format="svg", bbox_inches="tight", metadata=metadata)`` would, with one
+    draw: savefig draws the figure widened by :data:`MARGIN_INCHES` on every side (a box given to savefig, so it
+    does not measure first), the artists' box is measured at the end of that draw with its own renderer (each text
+    already measured), and the file's size and view box are set to it, ``pad_inches`` around.  The same picture as
+    savefig's; its coordinates counted from the widened figure's corner.
+
+    Only on the figure's own Agg canvas (the command line's figures), with no layout engine that acts at each
+    draw and nothing else of savefig's asked, and where the box lies inside the margin.  Returns False, having
+    written nothing, otherwise."""
+    import re
+
+    import matplotlib as mpl
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.layout_engine import PlaceHolderLayoutEngine
+    from matplotlib.transforms import Bbox
+
+    engine = fig.get_layout_engine()
+    if (
+        rest
+        or bbox_inches != "tight"
+        or type(fig.canvas) is not FigureCanvasAgg
+        or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))
+    ):
+        return False
+    if pad_inches is None:
+        pad_inches = mpl.rcParams["savefig.pad_inches"]
+    m = MARGIN_INCHES
+    w, h = fig.get_size_inches()
+    boxes = []
+    cid = fig.canvas.mpl_connect("draw_event", lambda event: boxes.append(fig.get_tightbbox(event.renderer)))
+    buf = io.BytesIO()
+    fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
+    try:
+        fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
+    finally:
+        fig.canvas.mpl_disconnect(cid)
+        if engine is not None:
+            fig.set_layout_engine(engine)
+    if len(boxes) != 1:
+        return False
+    box = boxes[0]  # inches from the widened figure's lower left corner
+    if box.x0 <= 0 or box.y0 <= 0 or box.x1 >= w + 2 * m or box.y1 >= h + 2 * m:
+        return False  # something runs on past the margin: savefig's own measure
+    box = box.padded(pad_inches)
+    x0, x1 = max(box.x0, 0.0) * 72, min(box.x1, w + 2 * m) * 72  # points, the view box's (y from the top)
+    top, bottom = (h + 2 * m - min(box.y1, h + 2 * m)) * 72, (h + 2 * m - max(box.y0, 0.0)) * 72
+    text = buf.getvalue().decode("utf-8")
+    header = re.compile(r'<svg([^>]*?) width="[^"]*" height="[^"]*" viewBox="[^"]*"')
+    if len(header.findall(text, 0, 2000)) != 1:
+        return False
+    fmt = mpl.backends.backend_svg._short_float_fmt
+    text = header.sub(
+        lambda k: (
+            f'<svg{k.group(1)} width="{fmt(x1 - x0)}pt" height="{fmt(bottom - top)}pt" '
+            f'viewBox="{fmt(x0)} {fmt(top)} {fmt(x1 - x0)} {fmt(bottom - top)}"'
+        ),
+        text,
+        count=1,
+    )
+    data = text.encode("utf-8")
+    if hasattr(target, "write"):
+        target.write(data)
+    else:
+        with open(target, "wb") as f:
+            f.write(data)
+    return True
+
+
+def _write_png(target, rgba, dpi: float, pil_kwargs: dict | None) -> None:
+    """An RGBA image (rows from the top) as PNG, as ``matplotlib.image.imsave`` writes it (its Software note, the
+    dpi), but as RGB where every pixel is opaque: the same picture, a quarter less to compress."""
+    import matplotlib as mpl
+    import numpy as np
+    from PIL import Image, PngImagePlugin
+
+    kw = dict(pil_kwargs or {})
+    if "pnginfo" not in kw:
+        kw["pnginfo"] = info = PngImagePlugin.PngInfo()
+        info.add_text("Software", f"Matplotlib version{mpl.__version__}, https://matplotlib.org/")
+    mode = "RGB" if rgba[..., 3].min() == 255 else "RGBA"
+    pixels = np.ascontiguousarray(rgba[..., :3] if mode == "RGB" else rgba)
+    Image.fromarray(pixels, mode).save(target, format="png", dpi=(dpi, dpi), **kw)
 
 
 def tight_box(fig, fmt: str, dpi: float | str | None = None, pad: float | None = None):
@@ -222,6 +387,10 @@ class Drawer:
     its own forked workers, reporting each figure done.  Leaving the ``with`` block ends the helper, also when the
     evaluation failed or was stopped.  Where the figures would be drawn in this process anyway (one core, no
     fork, ``SNRGAIN_WORKERS=1``) no helper is started, and where the jobs cannot be pickled they are drawn here.
+
+    A figure that needs no results (the site plan, from the scenario) can be handed over before them
+    (:meth:`ahead`): the helper draws it while this process evaluates, and :meth:`draw` takes its bytes for the job
+    named so (``ahead={index: key}``), which is drawn as any other where the early one is missing or failed.
     """
 
     def __init__(self, fmt: str = "png", *, modules: Sequence[str] = ()):
@@ -254,20 +423,51 @@ class Drawer:
             proc.terminate()
         proc.join()
 
+    def ahead(self, key: str, job: tuple[Callable, str, dict]) -> None:
+        """Hand the helper one job to draw now, before the results (nothing where there is no helper, or where the
+        job cannot be pickled: :meth:`draw` then draws it with the others)."""
+        if self._proc is None:
+            return
+        try:
+            payload = pickle.dumps(("ahead", key, job), protocol=pickle.HIGHEST_PROTOCOL)
+        except (pickle.PicklingError, TypeError, AttributeError):
+            return
+        try:
+            self._conn.send_bytes(payload)
+        except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
+            pass
+
+    def prepare(self, fn: Callable, *args) -> None:
+        """Have the helper call ``fn(*args)`` once it is ready, before the results (to make what every figure of the
+        kind needs: :func:`snrgain.outputs.plots.prepare_blanks`); its workers inherit what it made.  Nothing where
+        there is no helper or where the call cannot be pickled; a call that fails is let go."""
+        if self._proc is None:
+            return
+        try:
+            payload = pickle.dumps(("prepare", fn, args), protocol=pickle.HIGHEST_PROTOCOL)
+        except (pickle.PicklingError, TypeError, AttributeError):
+            return
+        try:
+            self._conn.send_bytes(payload)
+        except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
+            pass
+
     def draw(
         self,
         jobs: Sequence[tuple[Callable, str, dict]],
         *,
         done: Callable[[], None] | None = None,
         cost: Sequence[float] | None = None,
+        ahead: dict[int, str] | None = None,
     ) -> list[bytes]:
-        """:func:`draw_all` of the jobs, in the helper if there is one."""
+        """:func:`draw_all` of the jobs, in the helper if there is one; ``ahead``: the jobs (by index) that the
+        helper was handed before (:meth:`ahead`, by key), whose bytes it has drawn by now."""
         from snrgain.errors import stop_if_asked
 
         if self._proc is None:
             return draw_all(jobs, done=done, cost=cost)
         try:
-            payload = pickle.dumps((list(jobs), cost), protocol=pickle.HIGHEST_PROTOCOL)
+            payload = pickle.dumps(("jobs", list(jobs), cost, dict(ahead or {})), protocol=pickle.HIGHEST_PROTOCOL)
         except (pickle.PicklingError, TypeError, AttributeError):  # e.g. a figure function made in a notebook
             self.close()
             return draw_all(jobs, done=done, cost=cost)
@@ -289,19 +489,45 @@ class Drawer:
 
 
 def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
-    """The helper process of :class:`Drawer`: warm up, wait for the jobs, draw them, send the bytes back."""
+    """The helper process of :class:`Drawer`: warm up, draw what is handed ahead as it comes, wait for the jobs,
+    draw them (those drawn ahead taken as they are), send the bytes back."""
     _worker_start(parent)
     try:
         warm_up(fmt, modules)
     except Exception:  # any real problem comes back when the figures are drawn
         pass
+    early: dict[str, bytes] = {}
+    while True:
+        try:
+            message = pickle.loads(conn.recv_bytes())
+        except (EOFError, OSError):  # the command ended without drawing
+            return
+        if message[0] == "prepare":
+            try:
+                message[1](*message[2])
+            except Exception:  # only time lost: the figures make their own
+                pass
+            continue
+        if message[0] != "ahead":
+            break
+        _, key, (make, kind, savefig) = message
+        try:
+            early[key] = figure_bytes(make(), kind, **savefig)
+        except Exception:  # drawn again with the others, where its error is the command's
+            pass
     try:
-        payload = conn.recv_bytes()
-    except (EOFError, OSError):  # the command ended without drawing
-        return
-    try:
-        jobs, cost = pickle.loads(payload)
-        out = draw_all(jobs, done=lambda: conn.send(("done", None)), cost=cost)
+        _, jobs, cost, ahead = message
+        ready = {k: early[key] for k, key in ahead.items() if key in early}
+        rest = [k for k in range(len(jobs)) if k not in ready]
+        for _ in ready:
+            conn.send(("done", None))
+        drawn = draw_all(
+            [jobs[k] for k in rest],
+            done=lambda: conn.send(("done", None)),
+            cost=None if cost is None else [cost[k] for k in rest],
+        )
+        ready.update(zip(rest, drawn))
+        out = [ready[k] for k in range(len(jobs))]
     except BaseException as exc:  # the command raises it as its own
         try:
             conn.send(("failed", exc))

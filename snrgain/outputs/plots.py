@@ -59,28 +59,104 @@ def _axes(
     sharey: bool = False,
 ):
     """The figure and axes to draw on: those given (one Axes, or a sequence of n), or new ones on a new Figure
-    (n panels in a column, or in a row with ``columns``)."""
+    (n panels in a column, or in a row with ``columns``): one made ready beforehand (:func:`prepare_blanks`) where
+    there is one of that kind."""
     if ax is None:
-        from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
-
-        fig = Figure(figsize=figsize)
-        if polar:
-            return fig, [fig.add_subplot(projection="polar")]
-        shape = (1, n) if columns else (n, 1)
-        grid = fig.subplots(
-            *shape,
-            squeeze=False,
-            sharex=sharex,
-            sharey=sharey,
-            gridspec_kw={"width_ratios": width_ratios} if width_ratios else None,
-        )
-        return fig, list(grid.ravel())
+        key = _blank_key(n, polar, figsize, columns, width_ratios, sharex, sharey)
+        ready = _BLANKS.get(key)
+        if ready:
+            return ready.pop()
+        return _new_axes(*key)
     axes = list(ax) if isinstance(ax, (Sequence, np.ndarray)) else [ax]
     if len(axes) != n:
         raise ValueError(f"ax: this figure draws {n} panel(s); got {len(axes)} axes")
     if polar and axes[0].name != "polar":
         raise ValueError("ax: this figure needs polar axes (projection='polar')")
     return axes[0].figure, axes
+
+
+_BLANKS: dict[tuple, list] = {}
+"""Figures with their empty axes, made ahead by kind (:func:`prepare_blanks`), each taken once by :func:`_axes`."""
+
+
+def _blank_key(n, polar, figsize, columns, width_ratios, sharex, sharey) -> tuple:
+    return (
+        int(n),
+        bool(polar),
+        tuple(float(v) for v in figsize),
+        bool(columns),
+        None if width_ratios is None else tuple(float(v) for v in width_ratios),
+        bool(sharex),
+        bool(sharey),
+    )
+
+
+def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
+
+    # At the files' resolution, on an Agg canvas of its own: a PNG is then drawn once, at its size
+    # (snrgain.outputs.drawing.save_figure).
+    fig = Figure(figsize=figsize, dpi=SAVE_OPTIONS["dpi"])
+    FigureCanvasAgg(fig)
+    if polar:
+        return fig, [fig.add_subplot(projection="polar")]
+    shape = (1, n) if columns else (n, 1)
+    grid = fig.subplots(
+        *shape,
+        squeeze=False,
+        sharex=sharex,
+        sharey=sharey,
+        gridspec_kw={"width_ratios": list(width_ratios)} if width_ratios else None,
+    )
+    return fig, list(grid.ravel())
+
+
+def blank_kinds(n_targets: int) -> list[tuple[dict, int]]:
+    """The new figures' kinds (:func:`_axes`' keywords) that a scenario of ``n_targets`` targets draws whatever its
+    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels."""
+    return [
+        ({"polar": True, "figsize": (7.5, 7.0)}, n_targets),
+        ({"figsize": (8.0, 4.8)}, n_targets),
+        ({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1),
+    ]
+
+
+def prepare_blanks(kinds) -> None:
+    """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
+    take (the figures' process does it while the command evaluates: making the axes and their ticks is a good part
+    of a figure's time).  A blank is the figure a function would make itself, so nothing drawn changes (tested)."""
+    for kw, count in kinds:
+        key = _blank_key(
+            kw.get("n", 1),
+            kw.get("polar", False),
+            kw.get("figsize", (8.0, 5.0)),
+            kw.get("columns", False),
+            kw.get("width_ratios"),
+            kw.get("sharex", False),
+            kw.get("sharey", False),
+        )
+        _BLANKS.setdefault(key, []).extend(_new_axes(*key) for _ in range(count))
+
+
+def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
+    """Lay out a figure's panels at fixed margins and gaps [inches], in place of a measured layout (tight_layout
+    measures every text of the figure in an extra pass).  The margins hold the tick labels and titles and may be
+    generous: the files are cut to what is drawn (``bbox_inches="tight"``), and whatever runs past the figure's
+    edge (an outside legend, a long name) is kept there too (:func:`snrgain.outputs.drawing.save_figure`)."""
+    w, h = fig.get_size_inches()
+    grid = fig.axes[0].get_subplotspec().get_gridspec() if fig.axes[0].get_subplotspec() else None
+    rows, cols = grid.get_geometry() if grid is not None else (1, 1)
+    ah = (h - top - bottom - (rows - 1) * hgap) / rows  # one panel's height and width
+    aw = (w - left - right - (cols - 1) * wgap) / cols
+    fig.subplots_adjust(
+        left=left / w,
+        right=1 - right / w,
+        top=1 - top / h,
+        bottom=bottom / h,
+        hspace=hgap / ah if rows > 1 else None,
+        wspace=wgap / aw if cols > 1 else None,
+    )
 
 
 def azimuth_pattern(results, *, target_index: int = 0, ax=None):
@@ -106,7 +182,21 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     ticks = np.arange(0, FLOOR_SPAN_DB + 1, 10)
     ax.set_rticks(ticks)
     ax.set_yticklabels([f"{floor + t:.0f}" for t in ticks], fontsize=8)
-    ax.set_rlabel_position(135)
+    # the gain labels along the bearing farthest from every target and local source, where no arrow crosses them
+    marked = [t["bearing_deg"] for t in results.targets] + [s["bearing_deg"] for s in results.local_sources]
+    ax.set_rlabel_position(
+        max(
+            np.arange(22.5, 360.0, 45.0),
+            key=lambda a: min((abs((a - b + 180.0) % 360.0 - 180.0) for b in marked), default=180.0),
+        )
+    )
+    # A compass label where a target's name stands would lie under it: that name carries its own bearing instead.
+    bearings = [t["bearing_deg"] % 360.0 for t in results.targets]
+    compass = np.arange(0, 360, 45)
+    ax.set_thetagrids(
+        compass,
+        ["" if any(abs((c - b + 180.0) % 360.0 - 180.0) < 12.0 for b in bearings) else f"{c:d}°" for c in compass],
+    )
     for i, (t, tl) in enumerate(zip(results.targets, target_looks(len(results.targets)))):
         ax.annotate(
             "",
@@ -128,7 +218,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         ax.text(
             np.radians(t["bearing_deg"]),
             FLOOR_SPAN_DB + 6,
-            t["name"],
+            f"{t['name']} {t['bearing_deg'] % 360.0:.0f}°",
             ha="center",
             va="center",
             fontsize=9,
@@ -142,10 +232,11 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
         f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz",
         pad=28,
+        y=1.0,  # placed, not moved above the decorations at the draw (which measures them once more)
     )
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     if own:
-        fig.tight_layout()
+        _place(fig, left=0.6, right=1.9, top=1.1, bottom=0.9)  # a circle 5 in across, the legend to its right
     return fig
 
 
@@ -188,22 +279,26 @@ def elevation_pattern(results, *, target_index: int = 0, ax=None):
     ax.set_xlabel("elevation (deg above the horizon)")
     ax.set_ylabel("total gain (dBi)")
     ax.set_title(
-        f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz"
+        f"Elevation pattern toward {tgt['bearing_deg']:.0f} deg ('{tgt['name']}'), {results.freq_hz / 1e6:g} MHz",
+        y=1.0,
     )
     ax.grid(alpha=0.3)
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     if own:
-        fig.tight_layout()
+        _place(fig, left=0.8, right=2.4, top=0.45, bottom=0.65)
     return fig
 
 
-def _sky_grid(comp, az_edges, el_edges):
+def _sky_grid(comp, az_edges, el_edges, weights: dict | None = None):
     """Brightness temperature [K] of a diffuse component at the centres of a regular az/el grid, interpolated on the
     sphere (bilinear between the four nearest pixel centres, healpy's scheme in numpy: noisemodels.sphere), not
     looked up pixel by pixel.
 
     Pixels centred below the horizon hold no brightness; each takes the value of its mirror image above the
-    horizon, so the interpolation just above 0 deg is not pulled toward zero (which drew a dotted row there)."""
+    horizon, so the interpolation just above 0 deg is not pulled toward zero (which drew a dotted row there).
+
+    ``weights``: a dict kept between the components of one figure, holding the grid's interpolation pixels and
+    weights by HEALPix resolution (the same for every component of that resolution)."""
     from noisemodels.sphere import direction_to_pixel, interpolation_weights, mirror_pixels, to_healpy_angles
 
     d = comp.directions
@@ -211,11 +306,15 @@ def _sky_grid(comp, az_edges, el_edges):
     full[direction_to_pixel(d.nside, d.azimuth_rad, d.elevation_rad)] = comp.weight_k_sr / d.solid_angle_sr
     below, mirror = mirror_pixels(d.nside)
     full[below] = full[mirror]  # the same bearing, elevation reflected
-    az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
-    el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
-    A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
-    pix, wgt = interpolation_weights(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
-    return np.sum(wgt * full[pix], axis=0).reshape(A.shape)
+    shape = (el_edges.size - 1, az_edges.size - 1)
+    weights = {} if weights is None else weights
+    if d.nside not in weights:
+        az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
+        el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
+        A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
+        weights[d.nside] = interpolation_weights(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
+    pix, wgt = weights[d.nside]
+    return np.sum(wgt * full[pix], axis=0).reshape(shape)
 
 
 def sky_moment(results) -> tuple[int, int]:
@@ -250,7 +349,8 @@ def noise_sky(
     compact = [c for c in comps if c.directions.nside is None]
     az_edges = np.arange(0, 361, 1.0)
     el_edges = np.arange(0, 90.1, 0.5)
-    maps = [(c.name, _sky_grid(c, az_edges, el_edges)) for c in diffuse]
+    grid_weights: dict = {}
+    maps = [(c.name, _sky_grid(c, az_edges, el_edges, grid_weights)) for c in diffuse]
     total = sum(m for _, m in maps) if maps else np.zeros((el_edges.size - 1, az_edges.size - 1))
     panels = (
         [("total of the diffuse components", total)]
@@ -264,20 +364,29 @@ def noise_sky(
     vmin = vmax - 40
     mesh = None
     for ax, (name, m) in zip(axes, panels):
+        ink = "white" if np.any(m > 0) else "black"  # the names: white on the colour map, black on the plain grey
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
             # below the scale: its floor; no noise at all from there (the model sends none): grey, said in the title
             db = np.ma.masked_where(m <= 0, np.clip(db, vmin, None))
             ax.set_facecolor("0.82")
-            mesh = ax.pcolormesh(
-                az_edges, el_edges, db, vmin=vmin, vmax=vmax, cmap="magma", shading="flat", rasterized=True
+            # one cell a grid step, as a mesh of the grid's edges would draw it, as an image (a fraction of the time)
+            mesh = ax.imshow(
+                db,
+                extent=(az_edges[0], az_edges[-1], el_edges[0], el_edges[-1]),
+                origin="lower",
+                aspect="auto",
+                interpolation="nearest",
+                vmin=vmin,
+                vmax=vmax,
+                cmap="magma",
             )
         else:
             ax.set_facecolor("0.9")
             ax.text(180, 45, "none reaches the ground (screened by the ionosphere)", ha="center", va="center")
         ax.set_ylabel("elevation (deg)")
-        ax.set_title(name, fontsize=10, loc="left")
+        ax.set_title(name, fontsize=10, loc="left", y=1.0)
         for t, tl in zip(results.targets, target_looks(len(results.targets))):
             lo, hi = t["elevation_min_deg"], t["elevation_max_deg"]
             ax.add_patch(
@@ -286,12 +395,13 @@ def noise_sky(
                 )
             )
             ax.plot([t["bearing_deg"]], [hi], marker=tl.marker, mfc="white", mec="black", ms=10, ls="none")
-            ax.text(t["bearing_deg"] + 5, hi + 2, t["name"], color="white", fontsize=8)
+            ax.text(t["bearing_deg"] + 5, hi + 2, t["name"], color=ink, fontsize=8)
         for c in compact:
             az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
             el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
             ax.plot([az], [el], ls="none", **SOURCE_MARKER)
-            ax.text(az + 2, el + 3, c.name, color="white", fontsize=8)
+            # to the left of its cross: the targets' names stand to the right of theirs
+            ax.text(az - 6, el, c.name, color=ink, fontsize=8, ha="right", va="center")
         ax.set_ylim(0, 90)
     axes[-1].set_xlabel("azimuth (compass bearing, deg)")
     axes[-1].set_xticks(np.arange(0, 361, 45))
@@ -304,11 +414,11 @@ def noise_sky(
     )
     if own:
         fig.suptitle(title, fontsize=11)
-        fig.tight_layout(rect=(0, 0, 0.9, 1))
+        _place(fig, left=0.8, right=1.05, top=1.05, bottom=0.65, hgap=0.4)
         if mesh is not None:
             fig.colorbar(mesh, cax=fig.add_axes((0.91, 0.15, 0.02, 0.7)), label="dB above 1 K")
     else:
-        axes[0].set_title(title, fontsize=9)
+        axes[0].set_title(title, fontsize=9, y=1.0)
         if mesh is not None:
             fig.colorbar(mesh, ax=axes, label="dB above 1 K")
     return fig
@@ -394,18 +504,18 @@ def snr_over_hours(results, *, ax=None):
                 axi.vlines(x, np.fmin(hi, lo), np.fmax(hi, lo), color=lk.color, lw=1.0, alpha=0.7)
         axi.axhline(0.0, label=f"{ref_name} (reference)", **looks[ref_name].line())
         axi.set_ylabel("SNR gain (dB)")
-        axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left")
+        axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left", y=1.0)
         axi.grid(alpha=0.3)
         if len(x):
             axi.set_xticks(x, [f"{h:g}" for h in order])
             axi.set_xlim(x[0] - 0.5, x[-1] + 0.5)
         axi.set_xlabel("UTC hour (the target's listening window, in order)")
     axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
-    band = "; bands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
+    band = "\nbands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
     title = f"SNR gain over the reference through the hours, {lab.attrs['frequency_hz'] / 1e6:g} MHz{band}"
     if own:
         fig.suptitle(title, fontsize=10)
-        fig.tight_layout()
+        _place(fig, left=0.8, right=2.3, top=0.85, bottom=0.6, hgap=0.85)
     return fig
 
 
@@ -461,12 +571,12 @@ def ranking_chart(results, *, ax=None):
     axes[0].set_xlim(lo_x, hi_x + 0.25 * (hi_x - lo_x))  # room for the values and "best" beside the bars
     axes[0].axvline(0, color="0.3", lw=1)
     axes[0].set_yticks(y, names)
-    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %; best: the best toward that target")
-    axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10)
+    axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %;\nbest: the best toward that target")
+    axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10, y=1.0)
     axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
-    axes[1].set_title("RDF per target", fontsize=10)
+    axes[1].set_title("RDF per target", fontsize=10, y=1.0)
     target = lab.attrs["margin_target_db"]
     margin = np.nanmin(lab.get("margin_db")[keep], axis=(1, 2))
     axes[2].barh(
@@ -478,10 +588,12 @@ def ranking_chart(results, *, ax=None):
         lw=1.5,
     )
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
+    lo_x, hi_x = axes[2].get_xlim()
+    axes[2].set_xlim(lo_x, hi_x + 0.15 * (hi_x - lo_x))  # room for the values beside the bars
     for yi, v in zip(y, margin):
         axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
     axes[2].set_xlabel("margin over the chain's floor (dB)")
-    axes[2].set_title("External-noise margin (worst hour; '!' below target)", fontsize=10)
+    axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10, y=1.0)
     axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
@@ -489,7 +601,7 @@ def ranking_chart(results, *, ax=None):
     title = f"Ranking at {at['site']}, {at['frequency_hz'] / 1e6:g} MHz (reference: {at['reference']})"
     if own:
         fig.suptitle(title, fontsize=11)
-        fig.tight_layout()
+        _place(fig, left=2.4, right=0.5, top=0.85, bottom=0.8, wgap=0.35)  # the left margin: the antennas' names
     return fig
 
 
@@ -516,11 +628,25 @@ def site_plan(results, *, plan: dict | None = None, ax=None):
     return _draw_plan(plan, looks_of(results), f"Site plan, {plan['site']}", ax=ax)
 
 
+def plan_looks(plan: dict) -> dict:
+    """The antennas' looks as the plan lists them (the scenario's order, the reference first): those of the
+    results (:func:`snrgain.outputs.style.looks_of`) when the plan is the scenario's."""
+    return antenna_looks([a["name"] for a in plan["antennas"]], [a["family"] for a in plan["antennas"]])
+
+
+def scenario_plan(plan: dict, *, ax=None):
+    """:func:`site_plan` from the scenario's plan alone (:func:`snrgain.outputs.siteplan.plan_of`), before there
+    are results: the same figure where :func:`plan_looks` are the results' looks (the command line draws it while
+    the scenario is evaluated, and uses it only then)."""
+    if not has_site_plan(None, plan=plan):
+        raise ValueError("the scenario gives no lot outline ([site] lot) and no antenna positions (position = [e, n])")
+    return _draw_plan(plan, plan_looks(plan), f"Site plan, {plan['site']}", ax=ax)
+
+
 def layout_plan(plan: dict, *, ax=None):
     """A layout on the lot (the site plan with the placed candidates where the layout puts them, each with the SNR
     gain it reaches).  ``plan`` is :func:`snrgain.tools.layout.plan_data`."""
-    looks = antenna_looks([a["name"] for a in plan["antennas"]], [a["family"] for a in plan["antennas"]])
-    return _draw_plan(plan, looks, f"Layout, {plan['site']}", ax=ax)
+    return _draw_plan(plan, plan_looks(plan), f"Layout, {plan['site']}", ax=ax)
 
 
 def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
@@ -660,10 +786,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         fontweight="bold",
         arrowprops={"arrowstyle": "->", "lw": 2},
     )
-    ax.set_title(f"{title} (marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10)
+    ax.set_title(f"{title}\n(marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10, y=1.0)
+    entries = len(ax.get_legend_handles_labels()[1])
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
-    if own:
-        fig.tight_layout()
+    if own:  # below the plot: its axis label, then the legend's rows
+        _place(fig, left=0.9, right=0.3, top=0.6, bottom=0.9 + 0.2 * ((entries + 1) // 2))
     return fig
 
 
@@ -710,7 +837,7 @@ FIGURES = {
 }
 """Figure functions by short name (for the command line)."""
 
-FIGURE_COST = {"sky": 3.0, "hours": 2.0, "ranking": 2.0, "azimuth": 1.3, "plan": 1.0, "elevation": 1.0}
+FIGURE_COST = {"hours": 2.9, "sky": 2.5, "ranking": 2.4, "azimuth": 1.2, "plan": 1.2, "elevation": 1.0}
 """Rough relative drawing time of each figure by short name (measured on benchmarks/realistic-site.toml): the
 command line hands the heaviest to its workers first (:func:`snrgain.outputs.drawing.draw_all`)."""
 
