@@ -233,7 +233,7 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     place = np.broadcast_to(np.arange(lat.size).reshape(lat.shape), shape)
     b = np.broadcast_to(b, shape)
     out = np.empty(shape)
-    for blk in np.unique(block):  # the distinct blocks of the argument as given (small), not of its broadcast
+    for blk in np.unique(np.asarray(block, dtype=int)):  # the distinct blocks as given (small), not broadcast
         sel = b == blk
         idx = place[sel]
         # the places this block is asked at, each once: all of them (no gathers) when it covers every place
@@ -271,7 +271,7 @@ def _block_values(c: AtmosphericCoefficients, lat_rad, lon_rad, freq_mhz, block)
     f = np.asarray(freq_mhz, dtype=float)
     b = np.asarray(block, dtype=int)
     fam1 = fam_1mhz(c, lat, lon_rad, b)
-    if f.size == 1 or np.all(f == f.flat[0]):
+    if f.size and (f.size == 1 or np.all(f == f.flat[0])):
         # One frequency: every polynomial of step 3-4 depends on the table row t alone (block and hemisphere, 12
         # rows), so each is evaluated once per row and gathered, the same sums as per place
         f0 = float(f.flat[0])

@@ -522,7 +522,10 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         under the largest response left out).  The response is linear in k, so it is one division."""
         az = np.radians(np.tile(_FIT_AZIMUTHS_DEG, len(_FIT_ELEVATIONS_DEG)))
         el = np.radians(np.repeat(_FIT_ELEVATIONS_DEG, len(_FIT_AZIMUTHS_DEG)))
-        rv, rh = self.complex_response(freq_hz, az, el)
+        # The loop's own response: beside a scatterer (snrgain.model.scatter.beside) the response holds the
+        # scatterer's re-radiation too, which no current on the loop gives (and the kept segments are shared by
+        # the loop's copies, so they must not depend on what stands beside it).
+        rv, rh = getattr(self, "bare_antenna", self).complex_response(freq_hz, az, el)
         target = np.concatenate([rv, rh])
         v, h = _plane_wave_voltages(freq_hz, pts, dirs, np.vstack([closed, rest]), az, el, self.ground)
         a, b = np.concatenate([v[0], h[0]]), np.concatenate([v[1], h[1]])

@@ -14,7 +14,8 @@ command line raises that threshold to :data:`GC_FIRST_THRESHOLD`; the collector 
 
 And pydantic's plugins: the first validator pydantic builds looks for plugins among every installed package's
 entry points (``importlib.metadata``), 10-20 ms of a ``check`` on a machine with a few hundred packages.  The
-command uses none, so it sets ``PYDANTIC_DISABLE_PLUGINS`` unless the user has set it.
+command uses none, so :func:`snrgain.cli.main.main` sets ``PYDANTIC_DISABLE_PLUGINS`` for its process unless the
+user has set it (importing this package does not).
 """
 
 import os
@@ -25,8 +26,6 @@ from snrgain.allocator import GC_FIRST_THRESHOLD, collect_less  # os and sys onl
 if "numpy" not in sys.modules:  # too late once numpy is loaded (a program that imported it first keeps its own)
     for _name in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ.setdefault(_name, "1")
-
-os.environ.setdefault("PYDANTIC_DISABLE_PLUGINS", "__all__")  # the command validates with no pydantic plugins
 
 collect_less()
 

@@ -120,10 +120,12 @@ def main() -> None:
     a traceback.  The work runs inside two nested ``try`` blocks; the inner one's ``finally`` blocks both signals
     (they stay pending and die with the process) and ignores them, so a handler can only run inside the outer block,
     which catches its exception."""
+    import os
     import signal
     import sys
     import warnings
 
+    os.environ.setdefault("PYDANTIC_DISABLE_PLUGINS", "__all__")  # the command uses none (snrgain.cli's notes)
     status: object = 0
     try:
         try:
