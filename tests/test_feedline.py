@@ -419,6 +419,28 @@ def test_an_unchoked_feed_line_costs_snr_and_the_reported_choke_restores_it():
     assert not [n for n in _run(FEED.format(extra=', choke = "20 kohm"'))[0].notices if n.code == "feed-line-cost"]
 
 
+def test_a_ground_spread_works_every_grounds_field_at_once_to_the_same_results(monkeypatch):
+    # The spread's eight other grounds: each placed source's field at the wires and the feed line's route worked in
+    # one call for all of them (placed.fields_ahead, nearground.field_grounds), which gives what each ground's own
+    # calls give, to the bit: the whole result the same as with every ground worked on its own.
+    from noisemodels.halfspace import forget_geometry
+    from snrgain.memo import forget
+    from snrgain.outputs.output import to_json
+
+    text = SCEN.format(site="", feed=FEED.format(extra="")).replace("ground = false", "ground = true")
+    calls = []
+    at_once = placed.field_vector_grounds
+    monkeypatch.setattr(placed, "field_vector_grounds", lambda *a, **kw: calls.append(len(a[4])) or at_once(*a, **kw))
+    forget()
+    forget_geometry()
+    batched = to_json(snrgain.evaluate(text))
+    assert calls and max(calls) == 8
+    monkeypatch.setattr(placed, "fields_ahead", lambda sc, per_ground: None)
+    forget()
+    forget_geometry()
+    assert to_json(snrgain.evaluate(text)) == batched
+
+
 def test_nothing_changes_for_antennas_without_a_feed_line():
     _, none = _run()
     _, some = _run(FEED.format(extra=""), site='station_ground = "60 ohm"')
