@@ -50,8 +50,9 @@ One
 place at a time works the field directly, point by point, as ``rank`` does (inside :func:`tabled`, layout's own
 search reads the tables there too); the EMFs along a wire at one place are kept for the next wire standing there
 (the loads do not enter them), the wires of a run worked one call of the field per source and ground
-(:func:`_prefetch_wire_emfs`), and each antenna's amplitudes kept by the antenna object for its feed line
-(:data:`_AMPLITUDES`, read by snrgain.model.feedline).
+(:func:`_prefetch_wire_emfs`; a ground spread's grounds in one call per source, :func:`fields_ahead`), and each
+antenna's amplitudes kept by the antenna object for its feed line (:data:`_AMPLITUDES`, read by
+snrgain.model.feedline).
 """
 
 from __future__ import annotations
