@@ -201,7 +201,7 @@ class TerminationScore:
         """(variants, cells): each variant's temperature from the placed sources, worked in full (their pickup where
         the antenna stands, :func:`snrgain.model.placed.pickup`; the reference's share as the products take it), and
         with a feed line what it adds (snrgain.model.feedline: its share of the placed sources, its sky part)."""
-        from snrgain.model import feedline, placed
+        from snrgain.model import feedline, placed, snr
 
         n = len(variants)
         cells = self.ref.temps.total[0].size
@@ -216,8 +216,13 @@ class TerminationScore:
         for name, share in shares.items():
             t_ref = self.ref.temps.by_component[self.skies.names.index(name), 0].ravel()
             out += (share[1:] / share[0])[:, None] * t_ref[None, :]
-        if prep is not None:  # and the feed line's sky part
-            out += feedline.sky_cells(prep, sub, self.ref.gains, self.skies, len(ants), self.routes_sky)[1:]
+        if prep is not None:  # and the feed line's sky part (its route's worked once: the products' part)
+            gains = feedline.gains(prep, sub, self.ref.gains)
+
+            def part():
+                return snr.sky_temperatures(gains, self.skies, pickup=feedline.no_pickup(prep)).by_component
+
+            out += feedline.sky_cells(prep, len(ants), self.routes_sky, part)[1:]
         return out
 
     def _statistic(self, quantities: np.ndarray) -> np.ndarray:
