@@ -523,23 +523,55 @@ def table(freq_hz: float, n2: complex, kind: str, rho_max_m: float, zeta_max_m: 
 def reflected(freq_hz: float, n2: complex, rho, zeta, kind: str) -> np.ndarray:
     """(7, N): the reflected-field integrals ``kind`` needs (the others zero) at distances ``rho`` (<= RHO_MAX_M)
     and heights ``zeta`` (interpolated remainder plus closed forms), without the 1 / k0^2 of the field."""
+    return reflected_grounds(freq_hz, [n2], rho, zeta, kind)[0]
+
+
+def reflected_grounds(freq_hz: float, n2s, rho, zeta, kind: str) -> np.ndarray:
+    """(G, 7, N): :func:`reflected` over each ground of ``n2s`` at the same points, each ground's values those
+    :func:`reflected` gives alone, to the bit.  The points' geometry is worked (or found) once, and where the tables
+    have the same grid and the points stand at a few heights their interpolation to those heights (small) is
+    stacked, so the gathers at the points are one per stencil node for all grounds (a ground spread's nine)."""
     rho = np.asarray(rho, dtype=float)
     zeta = np.asarray(zeta, dtype=float)
-    out = np.zeros((7, rho.size), dtype=complex)
+    out = np.zeros((len(n2s), 7, rho.size), dtype=complex)
     if rho.size == 0:
         return out
     if np.any(rho > RHO_MAX_M) or np.any(rho < 0) or np.any(zeta < 0):
         raise ValueError(f"the table holds 0 <= rho <= {RHO_MAX_M} m and zeta >= 0")
-    tab = table(freq_hz, n2, kind, float(rho.max()), float(zeta.max()))
-    rows = list(tab.rows)
-    out[rows] = tab.remainder(rho, zeta)
+    rho_max, zeta_max = float(rho.max()), float(zeta.max())
+    tabs = [table(freq_hz, n2, kind, rho_max, zeta_max) for n2 in n2s]
+    rows = list(tabs[0].rows)
+    shapes = {t.values.shape for t in tabs}
+    if len(tabs) > 1 and len(shapes) == 1:
+        out[:, rows] = _remainders(tabs, rho, zeta)
+    else:
+        for g, tab in enumerate(tabs):
+            out[g, rows] = tab.remainder(rho, zeta)
     close = np.nonzero(rho < FAR_SHARE_M[1])[0]
     if len(close):
         near = _near_geometry(rho, zeta, close)
-        cf = closed_forms(rho[close], zeta[close], tab.k0, n2, laplace=near[1])
-        for r in rows:
-            out[r, close] += near[0] * cf[r]
+        rc, zc = rho[close], zeta[close]
+        for g, (n2, tab) in enumerate(zip(n2s, tabs)):
+            cf = closed_forms(rc, zc, tab.k0, n2, laplace=near[1])
+            for r in rows:
+                out[g, r, close] += near[0] * cf[r]
     return out
+
+
+def _remainders(tabs, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
+    """(G, rows, N): :meth:`_Table.remainder` of each of ``tabs`` (one grid) at the same points, the gathers at the
+    points shared: each table's values interpolated to the points' few heights are stacked (small), then gathered
+    once per stencil node; the same products summed in the same order as table by table."""
+    first = tabs[0]
+    g = _geometry(first.k0, len(first.s), len(first.zeta), rho, zeta)
+    n_rows = len(first.rows)
+    if g[0] != "heights":
+        return np.stack([t.remainder(rho, zeta) for t in tabs])
+    _, j0, wz, at, wr, phase = g
+    at_h = np.stack([_weighted(lambda k, t=t: t.values[:, :, j0 + k], wz) for t in tabs])  # (G, rows, nodes, heights)
+    flat = at_h.reshape(len(tabs) * n_rows, -1)
+    got = _weighted(lambda k: flat[:, at[:, k]], wr) * phase
+    return got.reshape(len(tabs), n_rows, -1)
 
 
 _NEAR: OrderedDict = OrderedDict()

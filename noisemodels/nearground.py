@@ -83,6 +83,17 @@ def field(
     each point relative to the source's foot, from a short dipole at ``source_height_m``: ``kind`` "vertical" or
     "horizontal" (its axis at compass bearing ``axis_rad``).  ``permittivity`` None: a perfect ground.
     Normalised as the module docstring says."""
+    ground = None if permittivity is None else (permittivity, conductivity_s_per_m)
+    return field_grounds(freq_hz, rel_m, [ground], source_height_m=source_height_m, kind=kind, axis_rad=axis_rad)[0]
+
+
+def field_grounds(
+    freq_hz: float, rel_m, grounds, *, source_height_m: float, kind: str = "vertical", axis_rad: float = 0.0
+) -> np.ndarray:
+    """:func:`field` at the same points over each of several grounds: (G, N, 3), ``grounds`` a sequence of
+    (permittivity, conductivity [S/m]) or None (a perfect ground).  What does not depend on the ground (the checks,
+    the direct wave, the points' distances and the tables' interpolation geometry) is worked once for all of them
+    (a ground spread's nine grounds); each ground's values are those :func:`field` gives alone, to the bit."""
     rel = np.atleast_2d(np.asarray(rel_m, dtype=float))
     if rel.shape[-1] != 3:
         raise ValueError("points must be [east, north, height] triples")
@@ -101,32 +112,50 @@ def field(
     if np.any(np.linalg.norm(d_rel, axis=-1) <= 0):
         raise ValueError("a point coincides with the source")
     rad_d, near_d = _dipole_terms(p, d_rel, k)
+    direct = rad_d + near_d
     pi = np.array([-p[0], -p[1], p[2]])  # the perfect-ground image
-    if permittivity is None:
-        rad_i, near_i = _dipole_terms(pi, i_rel, k)
-        return rad_d + near_d + rad_i + near_i
-    n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
-    out = np.empty((len(rel), 3), dtype=complex)
+    out = np.empty((len(grounds), len(rel), 3), dtype=complex)
     rho = np.hypot(rel[:, 0], rel[:, 1])
     near = rho <= halfspace.RHO_MAX_M
-    if np.any(near):
-        out[near] = rad_d[near] + near_d[near] + _exact_reflected(freq_hz, n2, rel[near], h, kind, p)
-    if not np.all(near):
-        far = ~near
-        out[far] = rad_d[far] + near_d[far] + _closed_form_reflected(n2, k, p, pi, i_rel[far], kind, axis_rad)
+    every, none = bool(np.all(near)), not np.any(near)
+    far = ~near
+    lossy = [g for g, ground in enumerate(grounds) if ground is not None]
+    n2s = [complex_permittivity(freq_hz, grounds[g][0], grounds[g][1]) for g in lossy]
+    if lossy and every:
+        out[lossy] = direct[None] + _exact_reflected_grounds(freq_hz, n2s, rel, h, kind, p)
+    elif lossy and not none:
+        out[np.ix_(lossy, np.flatnonzero(near))] = direct[near][None] + _exact_reflected_grounds(
+            freq_hz, n2s, rel[near], h, kind, p
+        )
+    for g, n2 in zip(lossy, n2s):
+        if not every:
+            out[g, far] = direct[far] + _closed_form_reflected(n2, k, p, pi, i_rel[far], kind, axis_rad)
+    for g, ground in enumerate(grounds):
+        if ground is None:
+            rad_i, near_i = _dipole_terms(pi, i_rel, k)
+            out[g] = direct + rad_i + near_i
     return out
 
 
 def _exact_reflected(freq_hz: float, n2: complex, rel: np.ndarray, h: float, kind: str, p: np.ndarray) -> np.ndarray:
     """The ground's part of the field (N, 3) by the Sommerfeld integrals (:mod:`noisemodels.halfspace`)."""
+    return _exact_reflected_grounds(freq_hz, [n2], rel, h, kind, p)[0]
+
+
+def _exact_reflected_grounds(freq_hz: float, n2s, rel: np.ndarray, h: float, kind: str, p: np.ndarray) -> np.ndarray:
+    """:func:`_exact_reflected` over each ground of ``n2s`` (G, N, 3), the points' geometry worked once."""
     k = 2 * np.pi * freq_hz / C_M_PER_S
     rho = np.hypot(rel[:, 0], rel[:, 1])
     zeta = rel[:, 2] + h
-    ig = halfspace.reflected(freq_hz, n2, rho, zeta, kind) / k**2
+    ig = halfspace.reflected_grounds(freq_hz, n2s, rho, zeta, kind) / k**2  # (G, 7, N)
     safe = np.where(rho > 0, rho, 1.0)
+    out = np.empty((len(n2s), len(rel), 3), dtype=complex)
     if kind == "vertical":
         rho_hat = np.column_stack([rel[:, 0] / safe, rel[:, 1] / safe])
-        return np.column_stack([ig[1] * rho_hat[:, 0], ig[1] * rho_hat[:, 1], ig[0]])
+        out[:, :, 0] = ig[:, 1] * rho_hat[:, 0]
+        out[:, :, 1] = ig[:, 1] * rho_hat[:, 1]
+        out[:, :, 2] = ig[:, 0]
+        return out
     # the horizontal dipole along x = its axis, y = z cross x; phi from the axis
     x_hat = p[:2]
     y_hat = np.array([-p[1], p[0]])
@@ -134,13 +163,17 @@ def _exact_reflected(freq_hz: float, n2: complex, rel: np.ndarray, h: float, kin
     c = np.where(rho > 0, xs / safe, 1.0)
     s = np.where(rho > 0, ys / safe, 0.0)
     kk = k**2
-    e_rho = c * (kk * ig[2] + ig[5])
-    e_phi = -s * (kk * ig[2] + ig[4])
-    e_z = c * (kk * ig[3] + ig[6])
-    # back to (east, north): rho_hat = c x_hat + s y_hat, phi_hat = -s x_hat + c y_hat
-    e_x = e_rho * c - e_phi * s
-    e_y = e_rho * s + e_phi * c
-    return np.column_stack([e_x * x_hat[0] + e_y * y_hat[0], e_x * x_hat[1] + e_y * y_hat[1], e_z])
+    for g in range(len(n2s)):
+        e_rho = c * (kk * ig[g, 2] + ig[g, 5])
+        e_phi = -s * (kk * ig[g, 2] + ig[g, 4])
+        e_z = c * (kk * ig[g, 3] + ig[g, 6])
+        # back to (east, north): rho_hat = c x_hat + s y_hat, phi_hat = -s x_hat + c y_hat
+        e_x = e_rho * c - e_phi * s
+        e_y = e_rho * s + e_phi * c
+        out[g, :, 0] = e_x * x_hat[0] + e_y * y_hat[0]
+        out[g, :, 1] = e_x * x_hat[1] + e_y * y_hat[1]
+        out[g, :, 2] = e_z
+    return out
 
 
 def _closed_form_reflected(n2, k, p, pi, i_rel, kind, axis_rad):

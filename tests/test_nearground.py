@@ -308,3 +308,23 @@ def test_bad_points_are_refused():
         ng.field(1.83e6, [[10.0, 0.0, -1.0]], source_height_m=2.0, permittivity=13.0, conductivity_s_per_m=0.005)
     with pytest.raises(ValueError, match="coincides"):
         ng.field(1.83e6, [[0.0, 0.0, 0.0]], source_height_m=0.0, permittivity=13.0, conductivity_s_per_m=0.005)
+
+
+@pytest.mark.parametrize("kind", ["vertical", "horizontal"])
+def test_several_grounds_at_once_are_each_grounds_own_field(kind):
+    # field_grounds works the direct wave and the points' geometry once for a ground spread's grounds; each ground's
+    # field is the one field() gives alone, to the bit: points close in, at a few heights (the tables' per-height
+    # path), at many heights (the per-point path), beyond 3 km (the closed form), and a perfect ground among them.
+    rng = np.random.default_rng(5)
+    n = 400
+    few = np.column_stack([rng.uniform(-300, 300, n), rng.uniform(-300, 300, n), rng.choice([0.0, 1.0, 2.0], n)])
+    many = np.column_stack([rng.uniform(-80, 80, n), rng.uniform(-80, 80, n), rng.uniform(0, 12, n)])
+    far = np.array([[4000.0, 100.0, 2.0], [-2500.0, 2500.0, 5.0]])
+    grounds = [LOAM, POOR, None, (80.0, 5.0)]
+    for pts in (few, many, np.vstack([few[:50], far])):
+        kw = {"source_height_m": 4.0, "kind": kind, "axis_rad": 0.7}
+        got = ng.field_grounds(1.83e6, pts, grounds, **kw)
+        for g, ground in enumerate(grounds):
+            eps, sig = (None, None) if ground is None else ground
+            one = ng.field(1.83e6, pts, permittivity=eps, conductivity_s_per_m=sig, **kw)
+            np.testing.assert_array_equal(got[g], one)

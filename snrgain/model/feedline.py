@@ -532,6 +532,26 @@ def added(prep: Prepared | None, temps, part, skies):
     return snr.Temperatures(total, total.sum(axis=0)), FeedLineTemps(prep, by, effect)
 
 
+def sky_cells(prep: Prepared, n_antennas: int, held: dict, part) -> np.ndarray:
+    """(antennas, months x hours): what each antenna's feed line adds to its temperature from the sky, summed over the
+    components, as :func:`added` adds it (its route's part times its factor, :func:`sky_rows`); zero for an antenna
+    without one.  ``part()``: the integrator's product of :func:`gains` (components, 1 + distinct routes, months,
+    hours; worked by the caller, a stage), asked only for a route not in ``held`` (each route's part, kept by the
+    caller for the next call under the same sky, ground and reference: only the factors change).  What a termination
+    search's resistors (one route, another antenna end each) take without a pass of the products each
+    (snrgain.model.steering.TerminationScore)."""
+    rows, of = sky_rows(prep)
+    keys = [_route_key(fl) for fl, _ in rows]
+    if any(key not in held for key in keys):
+        by = part()
+        for r, key in enumerate(keys):
+            held.setdefault(key, by[:, 1 + r])
+    out = np.zeros((n_antennas, held[keys[0]][0].size)) if keys else np.zeros((n_antennas, 0))
+    for k, (r, scale) in of.items():
+        out[k] = (scale * held[keys[r]]).sum(axis=0).ravel()
+    return out
+
+
 def summary(sc, nominal, k: int) -> dict | None:
     """The feed line of antenna ``k`` of ``nominal`` (snrgain.model.products.Products) for its build sheet: its
     share of the noise [dB] (median and worst over the hours listened), the SNR gain it costs per target [dB], the

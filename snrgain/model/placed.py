@@ -50,8 +50,9 @@ One
 place at a time works the field directly, point by point, as ``rank`` does (inside :func:`tabled`, layout's own
 search reads the tables there too); the EMFs along a wire at one place are kept for the next wire standing there
 (the loads do not enter them), the wires of a run worked one call of the field per source and ground
-(:func:`_prefetch_wire_emfs`), and each antenna's amplitudes kept by the antenna object for its feed line
-(:data:`_AMPLITUDES`, read by snrgain.model.feedline).
+(:func:`_prefetch_wire_emfs`; a ground spread's grounds in one call per source, :func:`fields_ahead`), and each
+antenna's amplitudes kept by the antenna object for its feed line (:data:`_AMPLITUDES`, read by
+snrgain.model.feedline).
 """
 
 from __future__ import annotations
@@ -222,6 +223,84 @@ def field_vector(src, points_m, height_m, freq_hz: float, ground, *, kind: str) 
     return e * np.sqrt(share)
 
 
+def field_vector_grounds(src, points_m, height_m, freq_hz: float, grounds, *, kind: str) -> np.ndarray:
+    """:func:`field_vector` over each of ``grounds`` (G, N, 3), what does not depend on the ground worked once
+    (:func:`noisemodels.nearground.field_grounds`); each ground's values those :func:`field_vector` gives, to the
+    bit."""
+    share = dict(dipoles(src)).get(kind, 0.0)
+    p = np.atleast_2d(np.asarray(points_m, dtype=float))
+    z = np.broadcast_to(np.asarray(height_m, dtype=float), (len(p),))
+    rel = np.column_stack([p[:, 0] - src.position_m[0], p[:, 1] - src.position_m[1], z])
+    axis = orientation_rad(src) if kind == "horizontal" else 0.0
+    soils = [None if g is None else (g.permittivity, g.conductivity_s_per_m) for g in grounds]
+    e = nearground.field_grounds(freq_hz, rel, soils, source_height_m=src.height_m, kind=kind, axis_rad=axis)
+    return e * np.sqrt(share)
+
+
+_FIELD_VECTOR = field_vector
+"""The module's own :func:`field_vector`: :func:`fields_ahead` works only through it (a test may put another in its
+place, which the memos' keys then name)."""
+
+
+def fields_ahead(sc, per_ground) -> None:
+    """Work ahead, for several grounds at once, what :func:`pickup` works per ground in one call of the field per
+    source (:func:`_prefetch_wire_emfs`: the long wires' EMFs and amplitudes, the compact antennas' field at their
+    segments, the feed lines' routes): ``per_ground`` [(ground, antennas)], the antennas as they stand on each ground
+    (a ground spread's nodes, snrgain.model.spread.variants), none of their powers known.  Grounds whose points are
+    the same (the samples do not depend on the ground) share one call of :func:`field_vector_grounds`; what is kept
+    is what :func:`pickup` would keep at each ground, to the bit, so it then finds it held.  Nothing is done when the
+    memos could not hold every ground's parts at once (it would only be worked again)."""
+    placed = [s for s in sc.noise.local if s.position_m is not None]
+    if not placed or len(per_ground) < 2 or field_vector is not _FIELD_VECTOR:
+        return
+    from snrgain.model import feedline
+
+    dipole_count = sum(len(dipoles(s)) for s in placed)
+    first = per_ground[0][1]
+    wires = sum(1 for a in first if a.integrates_near_sources and not a.composite)
+    compact = sum(1 for a in first if not a.integrates_near_sources and not a.composite)
+    held = len(per_ground) * dipole_count
+    if held * wires > _EMFS.size // 2 or held * wires > _AMPLITUDES.size // 2 or held * compact > _FIELDS.size // 2:
+        return
+    if held * len(first) > feedline.MEMO_SIZE // 4:
+        return
+    f = sc.freq_hz
+    for src in placed:
+        for kind, _ in dipoles(src):
+            same: dict = {}
+            for ground, antennas in per_ground:
+                ref_m = antennas[0].params.position or (0.0, 0.0)
+                p = _known_by_groups(antennas)
+                routes = feedline.route_points_ahead(sc, antennas, src, kind, f, ground)
+                plan = _prefetch_plan(antennas, src, f, ref_m, ground, kind, p, extra=routes)
+                if plan is None:
+                    continue
+                q, z = plan.points()
+                same.setdefault((q.tobytes(), z.tobytes()), []).append(plan)
+            for plans in same.values():
+                q, z = plans[0].points()
+                e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
+                for plan, part in zip(plans, e):
+                    _prefetch_keep(plan, part)
+
+
+def _known_by_groups(antennas) -> np.ndarray:
+    """NaN for each antenna :func:`pickup` takes through :func:`_prefetch_wire_emfs`, 0 for those it fills first as
+    the same design at several places (:func:`_wire_powers`, :func:`_compact_powers`): what :func:`fields_ahead`
+    leaves to :func:`pickup`."""
+    p = np.full(len(antennas), np.nan)
+    groups: dict = {}
+    for k, a in enumerate(antennas):
+        if a.composite or a.gain_key() is None:
+            continue
+        if a.integrates_near_sources or (has_place(a) and getattr(a, "transmit_segments", None) is not None):
+            groups.setdefault((bool(a.integrates_near_sources), a.gain_key()), []).append(k)
+    for ks in groups.values():
+        if len(ks) > 1:
+            p[ks] = 0.0
+    return p
+
+
 def _kept_field(src, points_m, height_m, freq_hz: float, ground, *, kind: str) -> np.ndarray:
     """:func:`field_vector` kept in :data:`_FIELDS` by the points asked (a compact antenna that does not move is asked
     at its segments again for every resistor a termination search tries)."""
@@ -246,7 +325,7 @@ def _field_key(src, p: np.ndarray, z: np.ndarray, freq_hz: float, ground, kind: 
     )
 
 
-_FIELDS = Memo(64)
+_FIELDS = Memo(256)
 """A placed source's field at a compact antenna's segments (:func:`_kept_field`); what else is made of the field is
 kept whole where it is made: a long wire's EMFs in :data:`_EMFS`, a feed line's in snrgain.model.feedline, an
 antenna's amplitudes in :data:`_AMPLITUDES`."""
@@ -271,7 +350,7 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
     return _through_line(wire, freq_hz, x, emf, lead)
 
 
-_EMFS = Memo(256)
+_EMFS = Memo(1024)
 """A placed source's EMFs along a wire standing at one place (:func:`_source_emfs`), by everything they depend on."""
 
 
@@ -364,6 +443,36 @@ def _prefetch_wire_emfs(
     points).  The keys are those :func:`wire_feed_current` asks for (the same samples); one it would not ask for
     is only work wasted, never a wrong EMF (the samples are in the key).  ``extra``: [(points, heights, keep)] also
     worked in that call, each part handed to ``keep`` (the feed lines' routes: snrgain.model.feedline)."""
+    plan = _prefetch_plan(antennas, src, freq_hz, reference_m, ground, kind, p, extra=extra)
+    if plan is None:
+        return
+    q, z = plan.points()
+    _prefetch_keep(plan, field_vector(src, q, z, freq_hz, ground, kind=kind))
+
+
+class _Plan:
+    """What :func:`_prefetch_wire_emfs` works the source's field for at one ground: the wires (``todo``: key, wire,
+    feeds, samples, unit vector, (points, heights)), the compact antennas' segments (``compact``: key, points,
+    heights) and the ``extra`` parts (points, heights, keep), in the order of :meth:`points`."""
+
+    def __init__(self, src, freq_hz, reference_m, ground, kind, todo, compact, extra):
+        self.src, self.freq_hz, self.reference_m, self.ground, self.kind = src, freq_hz, reference_m, ground, kind
+        self.todo, self.compact, self.extra = todo, compact, list(extra)
+        self._points = None
+
+    def parts(self) -> list:
+        return [t[5] for t in self.todo] + [(q, z) for _, q, z in self.compact] + [(q, z) for q, z, _ in self.extra]
+
+    def points(self) -> tuple[np.ndarray, np.ndarray]:
+        """(points (N, 2), heights (N,)): every part's, concatenated."""
+        if self._points is None:
+            parts = self.parts()
+            self._points = (np.concatenate([q for q, _ in parts]), np.concatenate([z for _, z in parts]))
+        return self._points
+
+
+def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=()):
+    """:func:`_prefetch_wire_emfs`' :class:`_Plan` at one ground, None when fewer than two parts are to be worked."""
     least = table_min_points()
     todo, seen = [], set()
     for k, a in enumerate(antennas):
@@ -392,14 +501,18 @@ def _prefetch_wire_emfs(
         todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u)))
     compact = _compact_points(antennas, src, freq_hz, reference_m, ground, kind, p, seen)
     if len(todo) + len(compact) + len(extra) < 2:
-        return
-    pts = [t[5] for t in todo] + [(q, z) for _, q, z in compact] + [(q, z) for q, z, _ in extra]
-    e = field_vector(
-        src, np.concatenate([q for q, _ in pts]), np.concatenate([z for _, z in pts]), freq_hz, ground, kind=kind
-    )
-    parts = np.split(e, np.cumsum([len(q) for q, _ in pts])[:-1])
+        return None
+    return _Plan(src, freq_hz, reference_m, ground, kind, todo, compact, extra)
+
+
+def _prefetch_keep(plan: _Plan, e: np.ndarray) -> None:
+    """Hand each part of the field ``e`` at :meth:`_Plan.points` to where it is kept: a wire's EMFs and amplitudes,
+    a compact antenna's field at its segments, a feed line's route (its ``keep``)."""
     from snrgain.antennas.longwire import port_response
 
+    src, freq_hz, reference_m, ground, kind = plan.src, plan.freq_hz, plan.reference_m, plan.ground, plan.kind
+    todo, compact = plan.todo, plan.compact
+    parts = np.split(e, np.cumsum([len(q) for q, _ in plan.parts()])[:-1])
     el = np.array([src.elevation_rad])
     for (key, a, feeds, x, u, _), part in zip(todo, parts):
         emf, lead = _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
@@ -410,7 +523,7 @@ def _prefetch_wire_emfs(
         _AMPLITUDES.get(held, lambda a=a, amp=amp: (a, (complex(amp[0]), 0j)))
     for (key, _, _), part in zip(compact, parts[len(todo) :]):
         _FIELDS.get(key, lambda part=part: part)
-    for (_, _, keep), part in zip(extra, parts[len(todo) + len(compact) :]):
+    for (_, _, keep), part in zip(plan.extra, parts[len(todo) + len(compact) :]):
         keep(part)
 
 
@@ -789,7 +902,7 @@ def _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind) -> t
     )
 
 
-_AMPLITUDES = Memo(512)
+_AMPLITUDES = Memo(2048)
 """An antenna's amplitudes from a placed source's dipole (:func:`received_amplitudes`), each held with the antenna
 object it belongs to (so its id, in the key, is not given to another while held): what :func:`pickup` worked out
 for an antenna is read again, not worked again, by its feed line and by a termination search's next products."""

@@ -121,16 +121,20 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
     """(products, weight) of each ground node: the nominal products at the centre node, the same stages
     (:func:`snrgain.model.pipeline.products`) over the antennas moved to each other ground; a level read on the
     reference keeps that reading at every ground (its strength moves so the moved reference still receives it)."""
+    from snrgain.model import placed
     from snrgain.model.pipeline import strength_offsets_db
     from snrgain.model.products import products
 
     u = sc.uncertainty
+    nodes = ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None)
+    moved_to = {i: on_ground(sc, nominal.antennas, g) for i, (g, _) in enumerate(nodes) if g is not sc.site.ground}
+    placed.fields_ahead(sc, [(nodes[i][0], moved) for i, moved in moved_to.items()])  # every ground's field at once
     out = []
-    for ground, weight in ground_nodes(sc.site.ground, sc.site.ground_spread if u.ground else None):
+    for i, (ground, weight) in enumerate(nodes):
         if ground is sc.site.ground:
             out.append((nominal, weight))
             continue
-        moved = on_ground(sc, nominal.antennas, ground)
+        moved = moved_to[i]
         strength = strength_offsets_db(sc, moved)
         out.append((products(sc, moved, grid, skies, ground=ground, strength_db=strength, known=nominal), weight))
     return out

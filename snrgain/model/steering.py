@@ -141,8 +141,11 @@ class TerminationScore:
     products check the form (relative 1e-7); where it does not hold (a family whose current is not of this form)
     every resistor is worked in full.  The placed sources' part is checked apart: a loop's pickup of a near source
     through its segments' currents is not of the form to 1e-7, so it is then worked for every resistor (the
-    source's pickup alone, :func:`snrgain.model.placed.pickup`).  The statistic is :func:`_median_gains`'s, from
-    the same gains and temperatures (to rounding)."""
+    source's pickup alone, :func:`snrgain.model.placed.pickup`).  A feed line's part (its sky part through its route,
+    and what it changes of the placed sources' part) is not of the form either: it goes with the placed sources'
+    part, worked for every resistor (snrgain.model.feedline: prepare, sky_cells; the route's sky part once) and
+    checked against the products' own on the five resistors worked in full (else every resistor is).  The statistic
+    is :func:`_median_gains`'s, from the same gains and temperatures (to rounding)."""
 
     CHECK_RTOL = 1e-7
 
@@ -151,6 +154,8 @@ class TerminationScore:
         self.model = None  # (resistors, q coefficients per quantity, delta, probe directions), once fitted
         self.direct = False  # the form did not hold: every resistor worked in full
         self.placed_formed = False  # the placed sources' part follows the form too
+        self.feed_lines = False  # the candidate has a feed line (its part goes with the placed sources')
+        self.routes_sky: dict = {}  # its route's sky part (feedline.sky_cells), the same for every resistor
 
     def __call__(self, variants) -> np.ndarray:
         variants = list(variants)
@@ -170,37 +175,54 @@ class TerminationScore:
     def _quantities(self, variants) -> tuple[np.ndarray, np.ndarray] | None:
         """(formed, placed) of each variant, from a pass of the products (the reference known): formed (variants,
         targets + cells), its gains toward the targets, then its temperature from every component but the placed
-        sources per month and hour; placed (variants, cells), its temperature from the placed sources.  None with
-        feed lines (their share of the temperatures is not checked against the form)."""
+        sources per month and hour; placed (variants, cells), its temperature from the placed sources.  With a feed
+        line the antenna's own sky part is formed, and the feed line's (its sky part and what it changes of the
+        placed sources' part) goes with the placed sources' part (worked in full, :meth:`_placed`)."""
         sub = with_candidates(self.sc, variants, self.k)
         ants = [self.put(a) for a in variants]
         p = products(sub, [self.ref.antennas[0], *ants], self.grid, self.skies, known=self.ref)
-        if p.feed_lines is not None:
-            return None
         n = len(variants)
         rows = self._placed_rows()
         by = p.temps.by_component[:, 1:].reshape(p.temps.by_component.shape[0], n, -1)
-        sky = np.delete(by, rows, axis=0).sum(axis=0)
-        return np.concatenate([p.gains.toward[1:].reshape(n, -1), sky], axis=1), by[rows].sum(axis=0)
+        apart = by[rows].sum(axis=0)
+        self.feed_lines = p.feed_lines is not None
+        if self.feed_lines:  # the sky rows of effect are the feed line's own sky part (snrgain.model.feedline.added)
+            fl_sky = np.delete(p.feed_lines.effect[:, 1:].reshape(by.shape), rows, axis=0)
+            sky = (np.delete(by, rows, axis=0) - fl_sky).sum(axis=0)
+            apart = apart + fl_sky.sum(axis=0)
+        else:
+            sky = np.delete(by, rows, axis=0).sum(axis=0)
+        return np.concatenate([p.gains.toward[1:].reshape(n, -1), sky], axis=1), apart
 
     def _placed_rows(self) -> list[int]:
         return [self.skies.names.index(s.name) for s in self.sc.noise.local if s.position_m is not None]
 
     def _placed(self, variants) -> np.ndarray:
         """(variants, cells): each variant's temperature from the placed sources, worked in full (their pickup where
-        the antenna stands, :func:`snrgain.model.placed.pickup`; the reference's share as the products take it)."""
-        from snrgain.model import placed
+        the antenna stands, :func:`snrgain.model.placed.pickup`; the reference's share as the products take it), and
+        with a feed line what it adds (snrgain.model.feedline: its share of the placed sources, its sky part)."""
+        from snrgain.model import feedline, placed, snr
 
         n = len(variants)
         cells = self.ref.temps.total[0].size
-        if not self._placed_rows():
+        if not self._placed_rows() and not self.feed_lines:
             return np.zeros((n, cells))
         sub = with_candidates(self.sc, variants, self.k)
-        shares, _ = placed.pickup(sub, [self.ref.antennas[0], *[self.put(a) for a in variants]])
+        ants = [self.ref.antennas[0], *[self.put(a) for a in variants]]
+        shares, powers = placed.pickup(sub, ants)
+        prep = feedline.prepare(sub, ants, powers) if self.feed_lines else None
+        shares = feedline.shares_with(prep, shares)
         out = np.zeros((n, cells))
         for name, share in shares.items():
             t_ref = self.ref.temps.by_component[self.skies.names.index(name), 0].ravel()
             out += (share[1:] / share[0])[:, None] * t_ref[None, :]
+        if prep is not None:  # and the feed line's sky part (its route's worked once: the products' part)
+            gains = feedline.gains(prep, sub, self.ref.gains)
+
+            def part():
+                return snr.sky_temperatures(gains, self.skies, pickup=feedline.no_pickup(prep)).by_component
+
+            out += feedline.sky_cells(prep, len(ants), self.routes_sky, part)[1:]
         return out
 
     def _statistic(self, quantities: np.ndarray) -> np.ndarray:
@@ -271,6 +293,11 @@ class TerminationScore:
             self.model = None
             return None
         self.placed_formed = bool(np.all(ok[:, m:]))
+        if self.feed_lines and not self.placed_formed:  # the feed lines' part as _placed works it: checked too
+            again = self._placed([variants[i] for i in fit + check])
+            if not np.all(np.abs(again - placed_t) <= self.CHECK_RTOL * np.max(np.abs(placed_t), axis=0) + 1e-300):
+                self.model = None
+                return None
         values = np.empty((n, m))
         n_tgt = len(self.sc.targets)
         for j, i in enumerate(fit + check):
