@@ -432,6 +432,27 @@ _GEOMETRY: OrderedDict = OrderedDict()
 _GEOMETRY_KEPT = 48
 GEOMETRY_MAX_POINTS = 20_000
 """Requests of more points (a layout's many places) have their geometry worked afresh, not kept."""
+GEOMETRY_MAX_BYTES = 96 * 2**20
+"""Bytes of arrays each of the two geometry stores keeps at most (one entry of 20,000 points is about 5 MB)."""
+
+
+def _keep(store: OrderedDict, key, out: tuple) -> None:
+    """Keep ``out`` in ``store`` by ``key``, dropping the oldest past _GEOMETRY_KEPT entries or GEOMETRY_MAX_BYTES."""
+    store[key] = out
+    while len(store) > _GEOMETRY_KEPT or (len(store) > 1 and _bytes_held(store) > GEOMETRY_MAX_BYTES):
+        store.popitem(last=False)
+
+
+def _bytes_held(store: OrderedDict) -> int:
+    return sum(a.nbytes for out in store.values() for a in _arrays(out))
+
+
+def _arrays(value):
+    if isinstance(value, np.ndarray):
+        yield value
+    elif isinstance(value, (tuple, list)):
+        for v in value:
+            yield from _arrays(v)
 
 
 def forget_geometry() -> None:
@@ -469,9 +490,7 @@ def _geometry(k0: float, ns: int, nz: int, rho: np.ndarray, zeta: np.ndarray) ->
         w = (np.stack(_lagrange(ti), axis=1)[:, :, None] * np.stack(_lagrange(tj), axis=1)[:, None, :]).reshape(-1, 16)
         out = ("points", at, w, phase)
     if small:
-        _GEOMETRY[key] = out
-        while len(_GEOMETRY) > _GEOMETRY_KEPT:
-            _GEOMETRY.popitem(last=False)
+        _keep(_GEOMETRY, key, out)
     return out
 
 
@@ -589,9 +608,7 @@ def _near_geometry(rho: np.ndarray, zeta: np.ndarray, close: np.ndarray) -> tupl
             return held
     out = (1 - _far_share(rho[close]), _laplace(rho[close], zeta[close]))
     if small:
-        _NEAR[key] = out
-        while len(_NEAR) > _GEOMETRY_KEPT:
-            _NEAR.popitem(last=False)
+        _keep(_NEAR, key, out)
     return out
 
 

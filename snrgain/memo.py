@@ -12,11 +12,16 @@ from typing import Any
 
 
 class Memo:
-    """Up to ``size`` results by key; :meth:`get` makes a missing one with ``make()`` and keeps it."""
+    """Up to ``size`` results by key, and with ``max_bytes`` up to that many bytes of numpy arrays in them (the
+    newest result is kept whatever its size); :meth:`get` makes a missing one with ``make()`` and keeps it."""
 
-    def __init__(self, size: int):
+    def __init__(self, size: int, *, max_bytes: int | None = None):
         self.size = int(size)
+        self.max_bytes = None if max_bytes is None else int(max_bytes)
         self._held: OrderedDict = OrderedDict()
+        self._sizes: dict = {}
+        self.nbytes = 0
+        """Bytes of arrays held (counted when ``max_bytes`` is set)."""
 
     def get(self, key: Hashable, make: Callable[[], Any]) -> Any:
         held = self._held
@@ -24,8 +29,12 @@ class Memo:
             held.move_to_end(key)
             return held[key]
         value = held[key] = make()
-        while len(held) > self.size:
-            held.popitem(last=False)
+        if self.max_bytes is not None:
+            self._sizes[key] = n = array_bytes(value)
+            self.nbytes += n
+        while len(held) > self.size or (self.max_bytes is not None and self.nbytes > self.max_bytes and len(held) > 1):
+            old, _ = held.popitem(last=False)
+            self.nbytes -= self._sizes.pop(old, 0)
         return value
 
     def __contains__(self, key: Hashable) -> bool:
@@ -36,6 +45,19 @@ class Memo:
 
     def clear(self) -> None:
         self._held.clear()
+        self._sizes.clear()
+        self.nbytes = 0
+
+
+def array_bytes(value) -> int:
+    """Bytes of the numpy arrays in ``value`` (an array, or tuples, lists and dicts of them; anything else 0)."""
+    if hasattr(value, "nbytes") and hasattr(value, "dtype"):
+        return int(value.nbytes)
+    if isinstance(value, (tuple, list)):
+        return sum(array_bytes(v) for v in value)
+    if isinstance(value, dict):
+        return sum(array_bytes(v) for v in value.values())
+    return 0
 
 
 def forget(*, lru_caches: bool = False) -> None:

@@ -36,3 +36,19 @@ def test_forget_empties_the_stores_and_keeps_the_quadrature_rules():
     forget(lru_caches=True)
     assert termloop._loop_constants.cache_info().currsize == 0
     assert gauss_legendre.cache_info().currsize > 0
+
+
+def test_a_memo_with_a_byte_bound_drops_the_oldest_arrays_past_it():
+    import numpy as np
+
+    from snrgain.memo import Memo, array_bytes
+
+    m = Memo(100, max_bytes=3000)
+    for k in range(5):  # 1,000 bytes each (125 float64): three fit
+        m.get(k, lambda: (np.zeros(125), {"x": 1}))
+    assert len(m) == 3 and 0 not in m and 1 not in m and 4 in m
+    assert m.nbytes == 3000 == sum(array_bytes(m.get(k, lambda: None)) for k in (2, 3, 4))
+    m.get("big", lambda: np.zeros(1000))  # larger than the bound alone: kept, the others dropped
+    assert len(m) == 1 and "big" in m and m.nbytes == 8000
+    m.clear()
+    assert len(m) == 0 and m.nbytes == 0

@@ -281,7 +281,8 @@ def _gamma(fl, freq_hz, ground) -> complex:
 
 
 def _route_emf_key(fl, src, kind, freq_hz, ground) -> tuple:
-    return ("route", fl.start_m, fl.end_m, fl.height_m, fl.depth_m, _source_key(src, kind, freq_hz, ground))
+    # the cable too: the run's samples follow its shield's line constant (a slow or buried run is sampled finer)
+    return ("route", *_route_key(fl), _source_key(src, kind, freq_hz, ground))
 
 
 def _routes(sc, antennas) -> dict:

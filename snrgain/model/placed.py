@@ -153,8 +153,9 @@ def antenna_point(antenna, reference_m) -> np.ndarray:
 
 def wire_samples(length_m: float, freq_hz: float, closest_m: float, line_gamma=None) -> np.ndarray:
     """Sample distances along a wire [m]: even steps as many as :func:`snrgain.physics.reciprocity.sample_steps`
-    gives (finer than a 60th of the shorter of free space's wavelength and the line's own, ``line_gamma``, and a
-    12th of the closest approach to the source), an even number of them (Simpson's rule,
+    gives (no step longer than its STEPS_PER_WAVELENGTH-th of free space's wavelength, STEPS_PER_LINE_WAVELENGTH-th
+    of the line's own, ``line_gamma``, and STEPS_PER_CLOSEST-th of the closest approach to the source), an even
+    number of them (Simpson's rule,
     snrgain.physics.quadrature.samples_rule).  A read-only array, shared by the calls that ask for the same."""
     return even_samples(length_m, sample_steps(length_m, freq_hz, closest_m, line_gamma))
 
@@ -325,7 +326,7 @@ def _field_key(src, p: np.ndarray, z: np.ndarray, freq_hz: float, ground, kind: 
     )
 
 
-_FIELDS = Memo(256)
+_FIELDS = Memo(256, max_bytes=64 * 2**20)
 """A placed source's field at a compact antenna's segments (:func:`_kept_field`); what else is made of the field is
 kept whole where it is made: a long wire's EMFs in :data:`_EMFS`, a feed line's in snrgain.model.feedline, an
 antenna's amplitudes in :data:`_AMPLITUDES`."""
@@ -350,7 +351,7 @@ def _currents_on(wire, src, freq_hz, feeds, ground, x, u, kind=None, *, field=No
     return _through_line(wire, freq_hz, x, emf, lead)
 
 
-_EMFS = Memo(1024)
+_EMFS = Memo(1024, max_bytes=64 * 2**20)
 """A placed source's EMFs along a wire standing at one place (:func:`_source_emfs`), by everything they depend on."""
 
 
