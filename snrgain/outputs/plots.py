@@ -112,20 +112,44 @@ def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
     return fig, list(grid.ravel())
 
 
-def blank_kinds(n_targets: int) -> list[tuple[dict, int]]:
+def blank_kinds(n_targets: int, n_candidates: int | None = None) -> list[tuple[dict, int]]:
     """The new figures' kinds (:func:`_axes`' keywords) that a scenario of ``n_targets`` targets draws whatever its
-    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels."""
-    return [
+    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels, and with
+    ``n_candidates`` (the antennas besides the reference) the ranking chart's panels."""
+    kinds = [
         ({"polar": True, "figsize": (7.5, 7.0)}, n_targets),
         ({"figsize": (8.0, 4.8)}, n_targets),
         ({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1),
     ]
+    if n_candidates:
+        kinds.append((_ranking_kind(n_candidates, n_targets), 1))
+    return kinds
+
+
+def _ranking_kind(n_names: int, n_targets: int) -> dict:
+    """:func:`_axes`' keywords of the ranking chart of ``n_names`` candidates and ``n_targets`` targets."""
+    return {
+        "n": 3,
+        "columns": True,
+        "figsize": (12, 0.6 * n_names * max(1, n_targets / 1.5) + 2.0),
+        "sharey": True,
+        "width_ratios": [2, 1.2, 1],
+    }
+
+
+TICKS_AHEAD = 16
+"""Major ticks made ahead on each axis of a blank (:func:`prepare_blanks`): a figure that draws fewer leaves the
+rest undrawn; one that draws more makes the others then."""
 
 
 def prepare_blanks(kinds) -> None:
     """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
     take (the figures' process does it while the command evaluates: making the axes and their ticks is a good part
-    of a figure's time).  A blank is the figure a function would make itself, so nothing drawn changes (tested)."""
+    of a figure's time).  A blank is the figure a function would make itself, so nothing drawn changes (tested).
+
+    Each axis gets :data:`TICKS_AHEAD` major ticks at once (matplotlib makes them as a draw first needs them, each
+    a copy of the first tick's properties: a tenth of a figure's time).  A figure draws only as many as it has
+    places for, each set up as on axes made then: the ticks' properties are set on every tick made so far."""
     for kw, count in kinds:
         key = _blank_key(
             kw.get("n", 1),
@@ -136,7 +160,12 @@ def prepare_blanks(kinds) -> None:
             kw.get("sharex", False),
             kw.get("sharey", False),
         )
-        _BLANKS.setdefault(key, []).extend(_new_axes(*key) for _ in range(count))
+        for _ in range(count):
+            fig, axes = _new_axes(*key)
+            for ax in axes:
+                for axis in ax._axis_map.values():
+                    axis.get_major_ticks(TICKS_AHEAD)
+            _BLANKS.setdefault(key, []).append((fig, axes))
 
 
 def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
@@ -444,6 +473,22 @@ def _window(x, values):
     return np.array(out_h), np.array(out_v)
 
 
+def _band_polygons(x, lower, upper) -> list[np.ndarray]:
+    """The band between ``lower`` and ``upper`` over ``x`` as ``fill_between`` outlines it: one polygon a run of
+    points where all three are finite (along the lower edge, back along the upper)."""
+    ok = np.isfinite(x) & np.isfinite(lower) & np.isfinite(upper)
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], ok.astype(np.int8), [0]])))
+    polys = []
+    for a, b in zip(edges[::2], edges[1::2]):
+        xs, lo, hi = x[a:b], lower[a:b], upper[a:b]
+        polys.append(
+            np.concatenate(
+                [[(xs[0], hi[0])], np.column_stack([xs, lo]), [(xs[-1], hi[-1])], np.column_stack([xs, hi])[::-1]]
+            )
+        )
+    return polys
+
+
 def target_window(ds, target_index: int) -> tuple[list[float], np.ndarray]:
     """The UTC hours one target is listened at, in listening order (a night across midnight: 22, 23, 0 ... 6),
     and their positions on an axis that runs past 24 so the night is one span (22, 23, 24 ... 30).  ``ds``: the
@@ -466,6 +511,8 @@ def snr_over_hours(results, *, ax=None):
     :meth:`Results.to_xarray`: ``snr_gain_db`` and ``snr_gain_atmospheric_deciles_db`` by antenna, target, month
     and UTC hour); ``results`` may be that Dataset itself.  ``ax``: a sequence of one Axes per target.
     """
+    from matplotlib.collections import LineCollection, PolyCollection
+
     from snrgain.model.labelled import ATMOSPHERIC_DECILES, Labelled
 
     own = ax is None
@@ -483,6 +530,7 @@ def snr_over_hours(results, *, ax=None):
     for i, axi in enumerate(axes):
         order, x = target_window(lab, i)
         cols = [hours.index(h) for h in order]
+        bands, band_colors, bars, bar_colors = [], [], [], []  # one collection of each a panel: a fraction of the time
         for k in candidates:
             lk = looks[names[k]]
             with warnings.catch_warnings():
@@ -500,8 +548,17 @@ def snr_over_hours(results, *, ax=None):
                 atm = True
                 _, v_hi = _window(x, hi)
                 _, v_lo = _window(x, lo)
-                axi.fill_between(xs, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=lk.color, alpha=0.15, lw=0)
-                axi.vlines(x, np.fmin(hi, lo), np.fmax(hi, lo), color=lk.color, lw=1.0, alpha=0.7)
+                for poly in _band_polygons(xs, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo)):
+                    bands.append(poly)
+                    band_colors.append(lk.color)
+                for xi, a, b in zip(x, np.fmin(hi, lo), np.fmax(hi, lo)):
+                    if np.isfinite(a) and np.isfinite(b):
+                        bars.append([(xi, a), (xi, b)])
+                        bar_colors.append(lk.color)
+        if bands:  # the bands under the lines (as fill_between's), the bars over them
+            axi.add_collection(PolyCollection(bands, facecolors=band_colors, alpha=0.15, lw=0, zorder=1))
+        if bars:
+            axi.add_collection(LineCollection(bars, colors=bar_colors, lw=1.0, alpha=0.7))
         axi.axhline(0.0, label=f"{ref_name} (reference)", **looks[ref_name].line())
         axi.set_ylabel("SNR gain (dB)")
         axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left", y=1.0)
@@ -538,14 +595,7 @@ def ranking_chart(results, *, ax=None):
     nt = len(targets)
     y = np.arange(len(names))
     h = 0.8 / nt
-    fig, axes = _axes(
-        ax,
-        n=3,
-        columns=True,
-        figsize=(12, 0.6 * len(names) * max(1, nt / 1.5) + 2.0),
-        sharey=True,
-        width_ratios=[2, 1.2, 1],
-    )
+    fig, axes = _axes(ax, **_ranking_kind(len(names), nt))
     looks = antenna_looks(all_names, [str(f) for f in lab.coord("family")])
     colors = [looks[n].color for n in names]
     rdf = lab.get("rdf_db")[keep]  # (antenna, target)
