@@ -84,11 +84,20 @@ def test_snr_over_hours_with_decile_bands(summer, tmp_path):
     assert len(fig.axes) == len(summer.targets)  # one panel per target
     ax = fig.axes[0]
     assert len(_labelled_lines(ax)) == len(summer.candidates) + 1
+    import numpy as np
     from matplotlib.collections import LineCollection, PolyCollection
+    from matplotlib.colors import to_rgba
 
-    # one decile band per candidate, and its bars on every point
-    assert sum(isinstance(c, PolyCollection) for c in ax.collections) == len(summer.candidates)
-    assert sum(isinstance(c, LineCollection) for c in ax.collections) == len(summer.candidates)
+    from snrgain.outputs.style import looks_of
+
+    # one decile band per candidate, and its bars on every point (one collection of each a panel)
+    (bands,) = [c for c in ax.collections if isinstance(c, PolyCollection)]
+    (bars,) = [c for c in ax.collections if isinstance(c, LineCollection)]
+    looks = looks_of(summer)
+    colours = {tuple(np.round(to_rgba(looks[a.name].color)[:3], 6)) for a in summer.candidates}
+    assert {tuple(np.round(c[:3], 6)) for c in bands.get_facecolors()} == colours
+    assert {tuple(np.round(c[:3], 6)) for c in bars.get_colors()} == colours
+    assert len(bars.get_segments()) == len(summer.candidates) * len(plots.target_window(summer, 0)[0])
     assert "UTC" in fig.axes[-1].get_xlabel()
     assert _png_size(fig, tmp_path, "hours") > 10_000
     plt.close(fig)
@@ -445,13 +454,25 @@ def test_figures_drawn_on_blanks_made_ahead_are_the_figures_made_then(results, m
         lambda: plots.azimuth_pattern(results, target_index=0),
         lambda: plots.elevation_pattern(results, target_index=0),
         lambda: plots.snr_over_hours(results),
+        lambda: plots.ranking_chart(results),
     ]
     fresh = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
-    plots.prepare_blanks(plots.blank_kinds(len(results.targets)))
+    # blanks carry their ticks made ahead (plots.TICKS_AHEAD): the figures draw only those they have places for
+    plots.prepare_blanks(plots.blank_kinds(len(results.targets), len(results.candidates)))
     made = sum(len(v) for v in plots._BLANKS.values())
-    assert made == 2 * len(results.targets) + 1
+    assert made == 2 * len(results.targets) + 2
     blanks = [fig for kind in plots._BLANKS.values() for fig, _ in kind]
     drawn = [make() for make in makers]
     assert all(fig in blanks for fig in drawn)  # each drawn on a blank made ahead
     assert sum(len(v) for v in plots._BLANKS.values()) == made - len(makers)
     assert [drawing.figure_bytes(fig, "png", **plots.SAVE_OPTIONS) for fig in drawn] == fresh
+    # and as SVG (its ids from a fixed salt and no date, so two files compare)
+    import matplotlib as mpl
+
+    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
+    fresh_svg = [drawing.figure_bytes(make(), "svg", bbox_inches="tight", metadata={"Date": None}) for make in makers]
+    plots._BLANKS.clear()
+    plots.prepare_blanks(plots.blank_kinds(len(results.targets), len(results.candidates)))
+    assert [
+        drawing.figure_bytes(make(), "svg", bbox_inches="tight", metadata={"Date": None}) for make in makers
+    ] == fresh_svg
