@@ -105,14 +105,16 @@ def _evaluated(sc, allow_long):
 
 
 def _plan_ahead(drawer, plan, fmt: str, savefig: dict, sc) -> str | None:
-    """Have the figures' process make the figures' empty axes (:func:`snrgain.outputs.plots.prepare_blanks`) and
+    """Have the figures' process make the figures' empty axes (:func:`snrgain.outputs.plots.blank_steps`) and
     draw the site plan (it needs no results: :func:`snrgain.outputs.plots.scenario_plan`) while the scenario is
     evaluated; the key the plan is drawn under, None where there is no plan (or none is asked for)."""
     from functools import partial
 
     from snrgain.outputs import plots
 
-    drawer.prepare(plots.prepare_blanks, plots.blank_kinds(len(sc.targets), len(sc.candidates)))
+    noise = sc.noise  # the sky's diffuse components: man-made, atmospheric, galactic (snrgain.sky.noise)
+    diffuse = sum(getattr(noise, k, None) is not None for k in ("man_made", "atmospheric", "galactic"))
+    drawer.prepare(plots.blank_steps, plots.blank_kinds(len(sc.targets), len(sc.candidates), diffuse))
     if plan is None or not plots.has_site_plan(None, plan=plan):
         return None
     drawer.ahead("plan", (partial(plots.scenario_plan, plan), fmt, savefig))

@@ -26,7 +26,7 @@ import io
 import multiprocessing
 import os
 import pickle
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 
 ENV_WORKERS = "SNRGAIN_WORKERS"
 """Environment variable: the most worker processes to draw with (1: draw in this process)."""
@@ -439,8 +439,10 @@ class Drawer:
 
     def prepare(self, fn: Callable, *args) -> None:
         """Have the helper call ``fn(*args)`` once it is ready, before the results (to make what every figure of the
-        kind needs: :func:`snrgain.outputs.plots.prepare_blanks`); its workers inherit what it made.  Nothing where
-        there is no helper or where the call cannot be pickled; a call that fails is let go."""
+        kind needs: :func:`snrgain.outputs.plots.blank_steps`); its workers inherit what it made.  Where the call
+        gives an iterator, the helper takes its steps one at a time while nothing else waits for it (a figure handed
+        :meth:`ahead` is drawn first) and stops when the jobs come: the preparation never holds up the drawing.
+        Nothing where there is no helper or where the call cannot be pickled; a call that fails is let go."""
         if self._proc is None:
             return
         try:
@@ -497,14 +499,22 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
     except Exception:  # any real problem comes back when the figures are drawn
         pass
     early: dict[str, bytes] = {}
+    steps: list = []  # preparations given as iterators, taken a step at a time while no message waits
     while True:
         try:
+            while steps and not conn.poll():
+                try:
+                    next(steps[0])
+                except Exception:  # done (StopIteration), or failed: only time lost, the figures make their own
+                    steps.pop(0)
             message = pickle.loads(conn.recv_bytes())
         except (EOFError, OSError):  # the command ended without drawing
             return
         if message[0] == "prepare":
             try:
-                message[1](*message[2])
+                made = message[1](*message[2])
+                if isinstance(made, Iterator):
+                    steps.append(made)
             except Exception:  # only time lost: the figures make their own
                 pass
             continue

@@ -112,10 +112,13 @@ def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
     return fig, list(grid.ravel())
 
 
-def blank_kinds(n_targets: int, n_candidates: int | None = None) -> list[tuple[dict, int]]:
+def blank_kinds(
+    n_targets: int, n_candidates: int | None = None, n_diffuse: int | None = None
+) -> list[tuple[dict, int]]:
     """The new figures' kinds (:func:`_axes`' keywords) that a scenario of ``n_targets`` targets draws whatever its
-    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels, and with
-    ``n_candidates`` (the antennas besides the reference) the ranking chart's panels."""
+    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels; with
+    ``n_candidates`` (the antennas besides the reference) the ranking chart's panels, with ``n_diffuse`` (the diffuse
+    noise components the scenario asks for) the sky's.  A kind given wrong only leaves its blank unused."""
     kinds = [
         ({"polar": True, "figsize": (7.5, 7.0)}, n_targets),
         ({"figsize": (8.0, 4.8)}, n_targets),
@@ -123,7 +126,14 @@ def blank_kinds(n_targets: int, n_candidates: int | None = None) -> list[tuple[d
     ]
     if n_candidates:
         kinds.append((_ranking_kind(n_candidates, n_targets), 1))
+    if n_diffuse is not None:
+        kinds.append((_sky_kind(n_diffuse + 1), 1))
     return kinds
+
+
+def _sky_kind(n_panels: int) -> dict:
+    """:func:`_axes`' keywords of the sky figure of ``n_panels`` panels."""
+    return {"n": n_panels, "figsize": (9.0, 2.3 * n_panels + 1.0), "sharex": True}
 
 
 def _ranking_kind(n_names: int, n_targets: int) -> dict:
@@ -137,19 +147,30 @@ def _ranking_kind(n_names: int, n_targets: int) -> dict:
     }
 
 
-TICKS_AHEAD = 16
-"""Major ticks made ahead on each axis of a blank (:func:`prepare_blanks`): a figure that draws fewer leaves the
-rest undrawn; one that draws more makes the others then."""
+TICKS_AHEAD = 10
+"""Major ticks made ahead on each axis of a blank (:func:`blank_steps`): a figure that draws fewer leaves the rest
+undrawn; one that draws more makes the others then."""
 
 
 def prepare_blanks(kinds) -> None:
     """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
-    take (the figures' process does it while the command evaluates: making the axes and their ticks is a good part
-    of a figure's time).  A blank is the figure a function would make itself, so nothing drawn changes (tested).
+    take: every step of :func:`blank_steps` at once."""
+    for _ in blank_steps(kinds):
+        pass
 
-    Each axis gets :data:`TICKS_AHEAD` major ticks at once (matplotlib makes them as a draw first needs them, each
-    a copy of the first tick's properties: a tenth of a figure's time).  A figure draws only as many as it has
-    places for, each set up as on axes made then: the ticks' properties are set on every tick made so far."""
+
+def blank_steps(kinds):
+    """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
+    take, one step at a time (a generator): the figures' process takes steps while the command evaluates and stops
+    when the results come (:meth:`snrgain.outputs.drawing.Drawer.prepare`).  Making the axes and their ticks is a
+    good part of a figure's time.  A blank is the figure a function would make itself, so nothing drawn changes
+    (tested).
+
+    First every blank, each a step; then each blank's axes get :data:`TICKS_AHEAD` major ticks, a blank a step
+    (matplotlib makes them as a draw first needs them, each a copy of the first tick's properties: a tenth of a
+    figure's time).  A figure draws only as many as it has places for, each set up as on axes made then: the ticks'
+    properties are set on every tick made so far."""
+    made = []
     for kw, count in kinds:
         key = _blank_key(
             kw.get("n", 1),
@@ -161,11 +182,15 @@ def prepare_blanks(kinds) -> None:
             kw.get("sharey", False),
         )
         for _ in range(count):
-            fig, axes = _new_axes(*key)
-            for ax in axes:
-                for axis in ax._axis_map.values():
-                    axis.get_major_ticks(TICKS_AHEAD)
-            _BLANKS.setdefault(key, []).append((fig, axes))
+            blank = _new_axes(*key)
+            _BLANKS.setdefault(key, []).append(blank)
+            made.append(blank)
+            yield
+    for _, axes in made:
+        for ax in axes:
+            for axis in ax._axis_map.values():
+                axis.get_major_ticks(TICKS_AHEAD)
+        yield
 
 
 def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
@@ -386,8 +411,7 @@ def noise_sky(
         if total_only
         else [*maps, ("total of the diffuse components", total)]
     )
-    n = len(panels)
-    fig, axes = _axes(ax, n=n, figsize=(9.0, 2.3 * n + 1.0), sharex=True)
+    fig, axes = _axes(ax, **_sky_kind(len(panels)))
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
     vmax = 10 * np.log10(max(p.max() for p in positive)) if positive else 1.0
     vmin = vmax - 40
