@@ -476,3 +476,26 @@ def test_figures_drawn_on_blanks_made_ahead_are_the_figures_made_then(results, m
     assert [
         drawing.figure_bytes(make(), "svg", bbox_inches="tight", metadata={"Date": None}) for make in makers
     ] == fresh_svg
+
+
+def test_png_written_here_reads_back_as_drawn():
+    # drawing.png_bytes writes the figures' PNG files itself (rows unfiltered, one zlib stream); read back with
+    # Pillow's decoder, an independent reader of the PNG standard, it must give the same pixels, dpi and text.
+    import numpy as np
+    from PIL import Image
+
+    from snrgain.outputs import drawing
+
+    rng = np.random.default_rng(7)
+    for channels in (3, 4):
+        pixels = rng.integers(0, 256, size=(37, 53, channels), dtype=np.uint8)
+        pixels[5:20, 10:40] = 255  # a flat patch, as a figure's face
+        data = drawing.png_bytes(pixels, 110, {"Software": "a note"}, 3)
+        image = Image.open(io.BytesIO(data))
+        image.load()
+        assert image.mode == ("RGB" if channels == 3 else "RGBA")
+        assert np.array_equal(np.asarray(image), pixels)
+        assert image.info["Software"] == "a note"
+        assert np.allclose(image.info["dpi"], 110, atol=0.01)
+    with pytest.raises(ValueError, match="8-bit RGB or RGBA"):
+        drawing.png_bytes(np.zeros((4, 4, 2), dtype=np.uint8), 110, {})
