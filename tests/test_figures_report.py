@@ -499,3 +499,34 @@ def test_png_written_here_reads_back_as_drawn():
         assert np.allclose(image.info["dpi"], 110, atol=0.01)
     with pytest.raises(ValueError, match="8-bit RGB or RGBA"):
         drawing.png_bytes(np.zeros((4, 4, 2), dtype=np.uint8), 110, {})
+
+
+def test_bars_drawn_as_barh_draws_them():
+    # plots._barh adds the ranking chart's bars with their data limits set once; the picture, the limits and the
+    # legend's "best" place must be barh's.
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from snrgain.outputs import drawing
+
+    y = [0.0, 1.0, 2.0, 3.0]
+    widths = [4.5, -2.0, 0.0, 7.25]
+    colors = ["#332288", "#DDCC77", "#44AA99", "#CC6677"]
+
+    def chart(own: bool):
+        fig = Figure(figsize=(5, 3), dpi=plots.SAVE_OPTIONS["dpi"])
+        FigureCanvasAgg(fig)
+        ax = fig.add_subplot()
+        kw = {"height": 0.35, "lw": 0.6, "hatch": "//", "alpha": 0.85}
+        if own:
+            plots._barh(ax, y, widths, colors=colors, edgecolors=["black", "none", "black", "none"], **kw)
+        else:
+            ax.barh(y, widths, color=colors, edgecolor=["black", "none", "black", "none"], **kw)
+        ax.bar(0, 0, color="white", edgecolor="black", hatch="//", label="a target")
+        ax.legend(loc="best")
+        return fig, ax
+
+    (f1, a1), (f2, a2) = chart(False), chart(True)
+    assert a1.get_xlim() == a2.get_xlim() and a1.get_ylim() == a2.get_ylim()
+    png = [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in (f1, f2)]
+    assert png[0] == png[1]

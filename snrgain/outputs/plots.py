@@ -626,11 +626,11 @@ def ranking_chart(results, *, ax=None):
     for ti, (t, tl) in enumerate(zip(targets, target_looks(nt))):
         off = ((nt - 1) / 2 - ti) * h  # the first target on top, as the legend lists them
         lo, med, hi = (quantiles[:, ti, QUANTILES.index(q)] for q in QUANTILES)
-        bars = {"height": h, "color": colors, "edgecolor": "black", "hatch": tl.hatch, "lw": 0.6}
-        axes[0].barh(y + off, med, alpha=0.85, **bars)
+        bars = {"height": h, "colors": colors, "edgecolors": "black", "hatch": tl.hatch, "lw": 0.6}
+        _barh(axes[0], y + off, med, alpha=0.85, **bars)
         axes[0].bar(0, 0, color="white", edgecolor="black", hatch=tl.hatch, label=t)  # the target's legend swatch
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
-        axes[1].barh(y + off, rdf[:, ti], **bars)
+        _barh(axes[1], y + off, rdf[:, ti], **bars)
         best = names.index(str(lab.coord("best")[ti]))
         for k, (yi, v, top) in enumerate(zip(y + off, med, hi)):
             axes[0].text(
@@ -653,12 +653,13 @@ def ranking_chart(results, *, ax=None):
     axes[1].set_title("RDF per target", fontsize=10, y=1.0)
     target = lab.attrs["margin_target_db"]
     margin = np.nanmin(lab.get("margin_db")[keep], axis=(1, 2))
-    axes[2].barh(
+    _barh(
+        axes[2],
         y,
         margin,
         height=0.6,
-        color=colors,
-        edgecolor=["black" if m < target else "none" for m in margin],
+        colors=colors,
+        edgecolors=["black" if m < target else "none" for m in margin],
         lw=1.5,
     )
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
@@ -677,6 +678,42 @@ def ranking_chart(results, *, ax=None):
         fig.suptitle(title, fontsize=11)
         _place(fig, left=2.4, right=0.5, top=0.85, bottom=0.8, wgap=0.35)  # the left margin: the antennas' names
     return fig
+
+
+def _barh(ax, y, widths, *, height: float, colors, edgecolors, lw: float, hatch=None, alpha=None) -> None:
+    """Horizontal bars centred on ``y`` from 0 to ``widths``, drawn as ``ax.barh(y, widths, height=height,
+    color=colors, edgecolor=edgecolors, lw=lw, hatch=hatch, alpha=alpha)`` draws them (the same rectangles, limits
+    and legend placement), with the data limits set once for all: barh sets them bar by bar, measuring each
+    rectangle's outline (a fifth of the ranking chart's time)."""
+    from matplotlib.colors import to_rgba_array
+    from matplotlib.patches import Rectangle
+
+    y = np.asarray(y, dtype=float)
+    widths = np.asarray(widths, dtype=float)
+    faces = list(to_rgba_array(colors))
+    edges = list(to_rgba_array(edgecolors))
+    corners = []
+    for k, (yi, w) in enumerate(zip(y, widths)):
+        bottom = yi - height / 2
+        r = Rectangle(
+            (0.0, bottom),
+            w,
+            height,
+            facecolor=faces[k % len(faces)],
+            edgecolor=edges[k % len(edges)],
+            linewidth=lw,
+            hatch=hatch,
+            label="_nolegend_",
+        )
+        if alpha is not None:
+            r.set_alpha(alpha)
+        r.sticky_edges.x.append(0.0)
+        ax.add_artist(r)  # a patch as add_patch adds it, without its own limits
+        if w or height:
+            corners += [(0.0, bottom), (w, bottom), (w, bottom + height), (0.0, bottom + height)]
+    if corners:
+        ax.update_datalim(corners)
+    ax._request_autoscale_view()
 
 
 def has_site_plan(results, *, plan: dict | None = None) -> bool:
@@ -911,7 +948,7 @@ FIGURES = {
 }
 """Figure functions by short name (for the command line)."""
 
-FIGURE_COST = {"hours": 2.9, "sky": 2.5, "ranking": 2.4, "azimuth": 1.2, "plan": 1.2, "elevation": 1.0}
+FIGURE_COST = {"hours": 2.0, "sky": 2.5, "ranking": 2.4, "azimuth": 1.2, "plan": 1.2, "elevation": 1.0}
 """Rough relative drawing time of each figure by short name (measured on benchmarks/realistic-site.toml): the
 command line hands the heaviest to its workers first (:func:`snrgain.outputs.drawing.draw_all`)."""
 
