@@ -501,16 +501,16 @@ def test_png_written_here_reads_back_as_drawn():
         drawing.png_bytes(np.zeros((4, 4, 2), dtype=np.uint8), 110, {})
 
 
-def test_bars_drawn_as_barh_draws_them():
-    # plots._barh adds the ranking chart's bars with their data limits set once; the picture, the limits and the
-    # legend's "best" place must be barh's.
+@pytest.mark.parametrize("widths", [[4.5, -2.0, 0.0, 7.25], [4.5, 2.0, 0.5, 7.25]])
+def test_bars_drawn_as_barh_draws_them(widths):
+    # plots._barh adds the ranking chart's bars with their data limits set once; the picture, the limits (bars all
+    # of one sign: the axis starts at 0) and the legend's "best" place must be barh's.
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
     from snrgain.outputs import drawing
 
     y = [0.0, 1.0, 2.0, 3.0]
-    widths = [4.5, -2.0, 0.0, 7.25]
     colors = ["#332288", "#DDCC77", "#44AA99", "#CC6677"]
 
     def chart(own: bool):
@@ -522,7 +522,7 @@ def test_bars_drawn_as_barh_draws_them():
             plots._barh(ax, y, widths, colors=colors, edgecolors=["black", "none", "black", "none"], **kw)
         else:
             ax.barh(y, widths, color=colors, edgecolor=["black", "none", "black", "none"], **kw)
-        ax.bar(0, 0, color="white", edgecolor="black", hatch="//", label="a target")
+        ax.plot([], [], color="black", label="a target")  # no data: the limits are the bars' alone
         ax.legend(loc="best")
         return fig, ax
 
