@@ -84,11 +84,20 @@ def test_snr_over_hours_with_decile_bands(summer, tmp_path):
     assert len(fig.axes) == len(summer.targets)  # one panel per target
     ax = fig.axes[0]
     assert len(_labelled_lines(ax)) == len(summer.candidates) + 1
+    import numpy as np
     from matplotlib.collections import LineCollection, PolyCollection
+    from matplotlib.colors import to_rgba
 
-    # one decile band per candidate, and its bars on every point
-    assert sum(isinstance(c, PolyCollection) for c in ax.collections) == len(summer.candidates)
-    assert sum(isinstance(c, LineCollection) for c in ax.collections) == len(summer.candidates)
+    from snrgain.outputs.style import looks_of
+
+    # one decile band per candidate, and its bars on every point (one collection of each a panel)
+    (bands,) = [c for c in ax.collections if isinstance(c, PolyCollection)]
+    (bars,) = [c for c in ax.collections if isinstance(c, LineCollection)]
+    looks = looks_of(summer)
+    colours = {tuple(np.round(to_rgba(looks[a.name].color)[:3], 6)) for a in summer.candidates}
+    assert {tuple(np.round(c[:3], 6)) for c in bands.get_facecolors()} == colours
+    assert {tuple(np.round(c[:3], 6)) for c in bars.get_colors()} == colours
+    assert len(bars.get_segments()) == len(summer.candidates) * len(plots.target_window(summer, 0)[0])
     assert "UTC" in fig.axes[-1].get_xlabel()
     assert _png_size(fig, tmp_path, "hours") > 10_000
     plt.close(fig)
@@ -445,13 +454,79 @@ def test_figures_drawn_on_blanks_made_ahead_are_the_figures_made_then(results, m
         lambda: plots.azimuth_pattern(results, target_index=0),
         lambda: plots.elevation_pattern(results, target_index=0),
         lambda: plots.snr_over_hours(results),
+        lambda: plots.ranking_chart(results),
     ]
     fresh = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
-    plots.prepare_blanks(plots.blank_kinds(len(results.targets)))
+    # blanks carry their ticks made ahead (plots.TICKS_AHEAD): the figures draw only those they have places for
+    plots.prepare_blanks(plots.blank_kinds(len(results.targets), len(results.candidates)))
     made = sum(len(v) for v in plots._BLANKS.values())
-    assert made == 2 * len(results.targets) + 1
+    assert made == 2 * len(results.targets) + 2
     blanks = [fig for kind in plots._BLANKS.values() for fig, _ in kind]
     drawn = [make() for make in makers]
     assert all(fig in blanks for fig in drawn)  # each drawn on a blank made ahead
     assert sum(len(v) for v in plots._BLANKS.values()) == made - len(makers)
     assert [drawing.figure_bytes(fig, "png", **plots.SAVE_OPTIONS) for fig in drawn] == fresh
+    # and as SVG (its ids from a fixed salt and no date, so two files compare)
+    import matplotlib as mpl
+
+    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
+    fresh_svg = [drawing.figure_bytes(make(), "svg", bbox_inches="tight", metadata={"Date": None}) for make in makers]
+    plots._BLANKS.clear()
+    plots.prepare_blanks(plots.blank_kinds(len(results.targets), len(results.candidates)))
+    assert [
+        drawing.figure_bytes(make(), "svg", bbox_inches="tight", metadata={"Date": None}) for make in makers
+    ] == fresh_svg
+
+
+def test_png_written_here_reads_back_as_drawn():
+    # drawing.png_bytes writes the figures' PNG files itself (rows unfiltered, one zlib stream); read back with
+    # Pillow's decoder, an independent reader of the PNG standard, it must give the same pixels, dpi and text.
+    import numpy as np
+    from PIL import Image
+
+    from snrgain.outputs import drawing
+
+    rng = np.random.default_rng(7)
+    for channels in (3, 4):
+        pixels = rng.integers(0, 256, size=(37, 53, channels), dtype=np.uint8)
+        pixels[5:20, 10:40] = 255  # a flat patch, as a figure's face
+        data = drawing.png_bytes(pixels, 110, {"Software": "a note"}, 3)
+        image = Image.open(io.BytesIO(data))
+        image.load()
+        assert image.mode == ("RGB" if channels == 3 else "RGBA")
+        assert np.array_equal(np.asarray(image), pixels)
+        assert image.info["Software"] == "a note"
+        assert np.allclose(image.info["dpi"], 110, atol=0.01)
+    with pytest.raises(ValueError, match="8-bit RGB or RGBA"):
+        drawing.png_bytes(np.zeros((4, 4, 2), dtype=np.uint8), 110, {})
+
+
+@pytest.mark.parametrize("widths", [[4.5, -2.0, 0.0, 7.25], [4.5, 2.0, 0.5, 7.25]])
+def test_bars_drawn_as_barh_draws_them(widths):
+    # plots._barh adds the ranking chart's bars with their data limits set once; the picture, the limits (bars all
+    # of one sign: the axis starts at 0) and the legend's "best" place must be barh's.
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from snrgain.outputs import drawing
+
+    y = [0.0, 1.0, 2.0, 3.0]
+    colors = ["#332288", "#DDCC77", "#44AA99", "#CC6677"]
+
+    def chart(own: bool):
+        fig = Figure(figsize=(5, 3), dpi=plots.SAVE_OPTIONS["dpi"])
+        FigureCanvasAgg(fig)
+        ax = fig.add_subplot()
+        kw = {"height": 0.35, "lw": 0.6, "hatch": "//", "alpha": 0.85}
+        if own:
+            plots._barh(ax, y, widths, colors=colors, edgecolors=["black", "none", "black", "none"], **kw)
+        else:
+            ax.barh(y, widths, color=colors, edgecolor=["black", "none", "black", "none"], **kw)
+        ax.plot([], [], color="black", label="a target")  # no data: the limits are the bars' alone
+        ax.legend(loc="best")
+        return fig, ax
+
+    (f1, a1), (f2, a2) = chart(False), chart(True)
+    assert a1.get_xlim() == a2.get_xlim() and a1.get_ylim() == a2.get_ylim()
+    png = [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in (f1, f2)]
+    assert png[0] == png[1]

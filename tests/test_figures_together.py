@@ -130,8 +130,9 @@ def test_a_window_across_midnight_is_one_line_in_its_order(drawn):
             assert np.allclose(np.mod(x, 24), hours)
         bars = [c for c in ax.collections if isinstance(c, LineCollection)]
         bands = [c for c in ax.collections if isinstance(c, PolyCollection)]
-        assert len(bars) == len(bands) == n_cand
-        assert all(len(b.get_segments()) == len(hours) for b in bars)  # the decile bar on every point
+        assert len(bars) == len(bands) == 1  # one collection of each a panel
+        assert len(bars[0].get_segments()) == n_cand * len(hours)  # the decile bar on every point
+        assert len({tuple(c) for c in bars[0].get_colors()}) == n_cand  # in each candidate's colour
 
 
 def test_the_plan_holds_the_whole_site(drawn):

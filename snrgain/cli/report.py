@@ -51,7 +51,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     with Drawer("svg", modules=_RESULT_MODULES) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
-            ahead = _plan_ahead(drawer, plan, "svg", {"bbox_inches": "tight"}, len(sc.targets))
+            ahead = _plan_ahead(drawer, plan, "svg", {"bbox_inches": "tight"}, sc)
             results = _evaluated(sc, allow_long)
         for w in results.warnings:
             click.echo(f"warning: {w}", err=True)
@@ -104,15 +104,17 @@ def _evaluated(sc, allow_long):
     return evaluate(sc, allow_long=allow_long)
 
 
-def _plan_ahead(drawer, plan, fmt: str, savefig: dict, n_targets: int) -> str | None:
-    """Have the figures' process make the figures' empty axes (:func:`snrgain.outputs.plots.prepare_blanks`) and
+def _plan_ahead(drawer, plan, fmt: str, savefig: dict, sc) -> str | None:
+    """Have the figures' process make the figures' empty axes (:func:`snrgain.outputs.plots.blank_steps`) and
     draw the site plan (it needs no results: :func:`snrgain.outputs.plots.scenario_plan`) while the scenario is
     evaluated; the key the plan is drawn under, None where there is no plan (or none is asked for)."""
     from functools import partial
 
     from snrgain.outputs import plots
 
-    drawer.prepare(plots.prepare_blanks, plots.blank_kinds(n_targets))
+    noise = sc.noise  # the sky's diffuse components: man-made, atmospheric, galactic (snrgain.sky.noise)
+    diffuse = sum(getattr(noise, k, None) is not None for k in ("man_made", "atmospheric", "galactic"))
+    drawer.prepare(plots.blank_steps, plots.blank_kinds(len(sc.targets), len(sc.candidates), diffuse))
     if plan is None or not plots.has_site_plan(None, plan=plan):
         return None
     drawer.ahead("plan", (partial(plots.scenario_plan, plan), fmt, savefig))
@@ -162,7 +164,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
     with Drawer(fmt, modules=_RESULT_MODULES) as drawer:
         with progress(None, f"figures: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
-            ahead = _plan_ahead(drawer, plan if "plan" in names else None, fmt, plots.SAVE_OPTIONS, len(sc.targets))
+            ahead = _plan_ahead(drawer, plan if "plan" in names else None, fmt, plots.SAVE_OPTIONS, sc)
             results = _evaluated(sc, allow_long)
         if "plan" in names and not plots.has_site_plan(results, plan=plan):
             if only:

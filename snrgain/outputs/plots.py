@@ -112,20 +112,65 @@ def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
     return fig, list(grid.ravel())
 
 
-def blank_kinds(n_targets: int) -> list[tuple[dict, int]]:
+def blank_kinds(
+    n_targets: int, n_candidates: int | None = None, n_diffuse: int | None = None
+) -> list[tuple[dict, int]]:
     """The new figures' kinds (:func:`_axes`' keywords) that a scenario of ``n_targets`` targets draws whatever its
-    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels."""
-    return [
+    results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels; with
+    ``n_candidates`` (the antennas besides the reference) the ranking chart's panels, with ``n_diffuse`` (the diffuse
+    noise components the scenario asks for) the sky's.  A kind given wrong only leaves its blank unused."""
+    kinds = [
         ({"polar": True, "figsize": (7.5, 7.0)}, n_targets),
         ({"figsize": (8.0, 4.8)}, n_targets),
         ({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1),
     ]
+    if n_candidates:
+        kinds.append((_ranking_kind(n_candidates, n_targets), 1))
+    if n_diffuse is not None:
+        kinds.append((_sky_kind(n_diffuse + 1), 1))
+    return kinds
+
+
+def _sky_kind(n_panels: int) -> dict:
+    """:func:`_axes`' keywords of the sky figure of ``n_panels`` panels."""
+    return {"n": n_panels, "figsize": (9.0, 2.3 * n_panels + 1.0), "sharex": True}
+
+
+def _ranking_kind(n_names: int, n_targets: int) -> dict:
+    """:func:`_axes`' keywords of the ranking chart of ``n_names`` candidates and ``n_targets`` targets."""
+    return {
+        "n": 3,
+        "columns": True,
+        "figsize": (12, 0.6 * n_names * max(1, n_targets / 1.5) + 2.0),
+        "sharey": True,
+        "width_ratios": [2, 1.2, 1],
+    }
+
+
+TICKS_AHEAD = 10
+"""Major ticks made ahead on each axis of a blank (:func:`blank_steps`): a figure that draws fewer leaves the rest
+undrawn; one that draws more makes the others then."""
 
 
 def prepare_blanks(kinds) -> None:
     """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
-    take (the figures' process does it while the command evaluates: making the axes and their ticks is a good part
-    of a figure's time).  A blank is the figure a function would make itself, so nothing drawn changes (tested)."""
+    take: every step of :func:`blank_steps` at once."""
+    for _ in blank_steps(kinds):
+        pass
+
+
+def blank_steps(kinds):
+    """Make figures with their empty axes ahead, ``(keywords of _axes, count)`` each, for the figure functions to
+    take, one step at a time (a generator): the figures' process takes steps while the command evaluates and stops
+    when the results come (:meth:`snrgain.outputs.drawing.Drawer.prepare`).  Making the axes and their ticks is a
+    good part of a figure's time.  A blank is the figure a function would make itself, so nothing drawn changes
+    (tested).
+
+    First every blank, each a step; then each blank's axes get :data:`TICKS_AHEAD` major ticks, a blank a step
+    (matplotlib makes them as a draw first needs them, each a copy of the first tick's properties: a tenth of a
+    figure's time).  A figure draws only as many as it has places for, each set up as on axes made then: the ticks'
+    properties are set on every tick made so far."""
+    made = []
     for kw, count in kinds:
         key = _blank_key(
             kw.get("n", 1),
@@ -136,7 +181,16 @@ def prepare_blanks(kinds) -> None:
             kw.get("sharex", False),
             kw.get("sharey", False),
         )
-        _BLANKS.setdefault(key, []).extend(_new_axes(*key) for _ in range(count))
+        for _ in range(count):
+            blank = _new_axes(*key)
+            _BLANKS.setdefault(key, []).append(blank)
+            made.append(blank)
+            yield
+    for _, axes in made:
+        for ax in axes:
+            for axis in ax._axis_map.values():
+                axis.get_major_ticks(TICKS_AHEAD)
+        yield
 
 
 def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
@@ -357,8 +411,7 @@ def noise_sky(
         if total_only
         else [*maps, ("total of the diffuse components", total)]
     )
-    n = len(panels)
-    fig, axes = _axes(ax, n=n, figsize=(9.0, 2.3 * n + 1.0), sharex=True)
+    fig, axes = _axes(ax, **_sky_kind(len(panels)))
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
     vmax = 10 * np.log10(max(p.max() for p in positive)) if positive else 1.0
     vmin = vmax - 40
@@ -444,6 +497,22 @@ def _window(x, values):
     return np.array(out_h), np.array(out_v)
 
 
+def _band_polygons(x, lower, upper) -> list[np.ndarray]:
+    """The band between ``lower`` and ``upper`` over ``x`` as ``fill_between`` outlines it: one polygon a run of
+    points where all three are finite (along the lower edge, back along the upper)."""
+    ok = np.isfinite(x) & np.isfinite(lower) & np.isfinite(upper)
+    edges = np.flatnonzero(np.diff(np.concatenate([[0], ok.astype(np.int8), [0]])))
+    polys = []
+    for a, b in zip(edges[::2], edges[1::2]):
+        xs, lo, hi = x[a:b], lower[a:b], upper[a:b]
+        polys.append(
+            np.concatenate(
+                [[(xs[0], hi[0])], np.column_stack([xs, lo]), [(xs[-1], hi[-1])], np.column_stack([xs, hi])[::-1]]
+            )
+        )
+    return polys
+
+
 def target_window(ds, target_index: int) -> tuple[list[float], np.ndarray]:
     """The UTC hours one target is listened at, in listening order (a night across midnight: 22, 23, 0 ... 6),
     and their positions on an axis that runs past 24 so the night is one span (22, 23, 24 ... 30).  ``ds``: the
@@ -466,6 +535,8 @@ def snr_over_hours(results, *, ax=None):
     :meth:`Results.to_xarray`: ``snr_gain_db`` and ``snr_gain_atmospheric_deciles_db`` by antenna, target, month
     and UTC hour); ``results`` may be that Dataset itself.  ``ax``: a sequence of one Axes per target.
     """
+    from matplotlib.collections import LineCollection, PolyCollection
+
     from snrgain.model.labelled import ATMOSPHERIC_DECILES, Labelled
 
     own = ax is None
@@ -483,6 +554,7 @@ def snr_over_hours(results, *, ax=None):
     for i, axi in enumerate(axes):
         order, x = target_window(lab, i)
         cols = [hours.index(h) for h in order]
+        bands, band_colors, bars, bar_colors = [], [], [], []  # one collection of each a panel: a fraction of the time
         for k in candidates:
             lk = looks[names[k]]
             with warnings.catch_warnings():
@@ -500,8 +572,17 @@ def snr_over_hours(results, *, ax=None):
                 atm = True
                 _, v_hi = _window(x, hi)
                 _, v_lo = _window(x, lo)
-                axi.fill_between(xs, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo), color=lk.color, alpha=0.15, lw=0)
-                axi.vlines(x, np.fmin(hi, lo), np.fmax(hi, lo), color=lk.color, lw=1.0, alpha=0.7)
+                for poly in _band_polygons(xs, np.fmin(v_hi, v_lo), np.fmax(v_hi, v_lo)):
+                    bands.append(poly)
+                    band_colors.append(lk.color)
+                for xi, a, b in zip(x, np.fmin(hi, lo), np.fmax(hi, lo)):
+                    if np.isfinite(a) and np.isfinite(b):
+                        bars.append([(xi, a), (xi, b)])
+                        bar_colors.append(lk.color)
+        if bands:  # the bands under the lines (as fill_between's), the bars over them
+            axi.add_collection(PolyCollection(bands, facecolors=band_colors, alpha=0.15, lw=0, zorder=1))
+        if bars:
+            axi.add_collection(LineCollection(bars, colors=bar_colors, lw=1.0, alpha=0.7))
         axi.axhline(0.0, label=f"{ref_name} (reference)", **looks[ref_name].line())
         axi.set_ylabel("SNR gain (dB)")
         axi.set_title(f"toward {lab.coord('target')[i]}", fontsize=10, loc="left", y=1.0)
@@ -538,25 +619,18 @@ def ranking_chart(results, *, ax=None):
     nt = len(targets)
     y = np.arange(len(names))
     h = 0.8 / nt
-    fig, axes = _axes(
-        ax,
-        n=3,
-        columns=True,
-        figsize=(12, 0.6 * len(names) * max(1, nt / 1.5) + 2.0),
-        sharey=True,
-        width_ratios=[2, 1.2, 1],
-    )
+    fig, axes = _axes(ax, **_ranking_kind(len(names), nt))
     looks = antenna_looks(all_names, [str(f) for f in lab.coord("family")])
     colors = [looks[n].color for n in names]
     rdf = lab.get("rdf_db")[keep]  # (antenna, target)
     for ti, (t, tl) in enumerate(zip(targets, target_looks(nt))):
         off = ((nt - 1) / 2 - ti) * h  # the first target on top, as the legend lists them
         lo, med, hi = (quantiles[:, ti, QUANTILES.index(q)] for q in QUANTILES)
-        bars = {"height": h, "color": colors, "edgecolor": "black", "hatch": tl.hatch, "lw": 0.6}
-        axes[0].barh(y + off, med, alpha=0.85, **bars)
+        bars = {"height": h, "colors": colors, "edgecolors": "black", "hatch": tl.hatch, "lw": 0.6}
+        _barh(axes[0], y + off, med, alpha=0.85, **bars)
         axes[0].bar(0, 0, color="white", edgecolor="black", hatch=tl.hatch, label=t)  # the target's legend swatch
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
-        axes[1].barh(y + off, rdf[:, ti], **bars)
+        _barh(axes[1], y + off, rdf[:, ti], **bars)
         best = names.index(str(lab.coord("best")[ti]))
         for k, (yi, v, top) in enumerate(zip(y + off, med, hi)):
             axes[0].text(
@@ -579,12 +653,13 @@ def ranking_chart(results, *, ax=None):
     axes[1].set_title("RDF per target", fontsize=10, y=1.0)
     target = lab.attrs["margin_target_db"]
     margin = np.nanmin(lab.get("margin_db")[keep], axis=(1, 2))
-    axes[2].barh(
+    _barh(
+        axes[2],
         y,
         margin,
         height=0.6,
-        color=colors,
-        edgecolor=["black" if m < target else "none" for m in margin],
+        colors=colors,
+        edgecolors=["black" if m < target else "none" for m in margin],
         lw=1.5,
     )
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
@@ -603,6 +678,42 @@ def ranking_chart(results, *, ax=None):
         fig.suptitle(title, fontsize=11)
         _place(fig, left=2.4, right=0.5, top=0.85, bottom=0.8, wgap=0.35)  # the left margin: the antennas' names
     return fig
+
+
+def _barh(ax, y, widths, *, height: float, colors, edgecolors, lw: float, hatch=None, alpha=None) -> None:
+    """Horizontal bars centred on ``y`` from 0 to ``widths``, drawn as ``ax.barh(y, widths, height=height,
+    color=colors, edgecolor=edgecolors, lw=lw, hatch=hatch, alpha=alpha)`` draws them (the same rectangles, limits
+    and legend placement), with the data limits set once for all: barh sets them bar by bar, measuring each
+    rectangle's outline (a fifth of the ranking chart's time)."""
+    from matplotlib.colors import to_rgba_array
+    from matplotlib.patches import Rectangle
+
+    y = np.asarray(y, dtype=float)
+    widths = np.asarray(widths, dtype=float)
+    faces = list(to_rgba_array(colors))
+    edges = list(to_rgba_array(edgecolors))
+    corners = []
+    for k, (yi, w) in enumerate(zip(y, widths)):
+        bottom = yi - height / 2
+        r = Rectangle(
+            (0.0, bottom),
+            w,
+            height,
+            facecolor=faces[k % len(faces)],
+            edgecolor=edges[k % len(edges)],
+            linewidth=lw,
+            hatch=hatch,
+            label="_nolegend_",
+        )
+        if alpha is not None:
+            r.set_alpha(alpha)
+        r.sticky_edges.x.append(0.0)
+        ax.add_artist(r)  # a patch as add_patch adds it, without its own limits
+        if w or height:
+            corners += [(0.0, bottom), (w, bottom), (w, bottom + height), (0.0, bottom + height)]
+    if corners:
+        ax.update_datalim(corners)
+    ax._request_autoscale_view()
 
 
 def has_site_plan(results, *, plan: dict | None = None) -> bool:
@@ -837,15 +948,15 @@ FIGURES = {
 }
 """Figure functions by short name (for the command line)."""
 
-FIGURE_COST = {"hours": 2.9, "sky": 2.5, "ranking": 2.4, "azimuth": 1.2, "plan": 1.2, "elevation": 1.0}
+FIGURE_COST = {"hours": 2.0, "sky": 2.5, "ranking": 2.4, "azimuth": 1.2, "plan": 1.2, "elevation": 1.0}
 """Rough relative drawing time of each figure by short name (measured on benchmarks/realistic-site.toml): the
 command line hands the heaviest to its workers first (:func:`snrgain.outputs.drawing.draw_all`)."""
 
 
 SAVE_OPTIONS = {"dpi": 110, "bbox_inches": "tight", "pil_kwargs": {"compress_level": 3}}
 """savefig's keywords for the figure files (PNG resolution; the bounding box that holds outside legends; zlib level
-3 instead of 6: the same pixels, files 1 % larger, written in two thirds of the time).  SVG ignores the PNG
-keywords."""
+3 instead of 6: the same pixels, written in half the time, files 8 % larger than at 6).  SVG ignores the PNG
+keywords.  The command line's PNG files are written by :func:`snrgain.outputs.drawing.png_bytes` at that level."""
 
 
 def save(fig, path, *, overwrite: bool = False, dpi: int = SAVE_OPTIONS["dpi"]) -> Path:
