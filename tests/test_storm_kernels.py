@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from noisemodels import p372_maps, storms
-from tests.conftest import needs_p372
+from tests.conftest import P372_DIR, needs_p372
 
 
 def test_geodesic_forward_matches_pyproj_to_a_tenth_of_a_millimetre():
@@ -89,11 +89,11 @@ def test_summed_by_key_is_unique_and_bincount():
 @needs_p372
 def test_cell_power_at_night_and_by_day_equals_the_law_evaluated_everywhere():
     geom = storms._geometry(43.15, -89.6, 250e3, 3.0, 100e3, 12_000e3)
-    blocks = storms.p372_blocks(geom, month=12, freq_hz=1.83e6)
+    blocks = storms.p372_blocks(geom, month=12, freq_hz=1.83e6, data_dir=P372_DIR)
     from noisemodels import solar
 
     for hour in (3.0, 18.0):
-        got = storms.cell_power(geom, month=12, utc_hour=hour, freq_hz=1.83e6)
+        got = storms.cell_power(geom, month=12, utc_hour=hour, freq_hz=1.83e6, data_dir=P372_DIR)
         # the plain form: the level blended in dB, every reflection point through the absorption law
         density = 10.0 ** (blocks.at_utc_hour(hour).fa_db / 10.0)
         sin_d, cos_d, cos_c, sin_c = solar.hour_terms(day_of_year=solar.mid_month_day_of_year(12), utc_hour=hour)
