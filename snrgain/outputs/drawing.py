@@ -478,16 +478,7 @@ class Drawer:
     def ahead(self, key: str, job: tuple[Callable, str, dict]) -> None:
         """Hand the helper one job to draw now, before the results (nothing where there is no helper, or where the
         job cannot be pickled: :meth:`draw` then draws it with the others)."""
-        if self._proc is None:
-            return
-        try:
-            payload = pickle.dumps(("ahead", key, job), protocol=pickle.HIGHEST_PROTOCOL)
-        except (pickle.PicklingError, TypeError, AttributeError):
-            return
-        try:
-            self._conn.send_bytes(payload)
-        except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
-            pass
+        self._send(("ahead", key, job))
 
     def prepare(self, fn: Callable, *args) -> None:
         """Have the helper call ``fn(*args)`` once it is ready, before the results (to make what every figure of the
@@ -495,10 +486,15 @@ class Drawer:
         gives an iterator, the helper takes its steps one at a time while nothing else waits for it (a figure handed
         :meth:`ahead` is drawn first) and stops when the jobs come: the preparation never holds up the drawing.
         Nothing where there is no helper or where the call cannot be pickled; a call that fails is let go."""
+        self._send(("prepare", fn, args))
+
+    def _send(self, message: tuple) -> None:
+        """Send the helper one message before the results; nothing where there is no helper or where the message
+        cannot be pickled (:meth:`draw` then does the work itself)."""
         if self._proc is None:
             return
         try:
-            payload = pickle.dumps(("prepare", fn, args), protocol=pickle.HIGHEST_PROTOCOL)
+            payload = pickle.dumps(message, protocol=pickle.HIGHEST_PROTOCOL)
         except (pickle.PicklingError, TypeError, AttributeError):
             return
         try:
