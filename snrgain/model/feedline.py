@@ -314,14 +314,8 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
         routes = list(_routes(sc, antennas).values())
     except ValueError:
         return []
-    out, seen = [], set()
-    for fl in routes:
-        key = _route_emf_key(fl, src, kind, freq_hz, ground)
-        if key in _MEMO or key in seen:
-            continue
-        seen.add(key)
-        x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
-        q, z = phys.route_points(fl, x)
+    out = []
+    for key, fl, x, (q, z) in _routes_not_held(routes, src, kind, freq_hz, ground):
 
         def keep(part, key=key, fl=fl, x=x):
             _memo(key, lambda: phys.route_emf_from(fl, x, part))
@@ -330,10 +324,9 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
     return out
 
 
-def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
-    """Put the :func:`_route_emf` of every route of ``routes`` not held yet in the memo, the source's field at all of
-    their points worked in one call (the routes of a run one source at a time: a call's own cost is that of a few
-    hundred points)."""
+def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
+    """[(memo key, route, samples, (points, heights))] of the distinct routes of ``routes`` whose EMFs from a placed
+    source's dipole are not in the memo yet."""
     todo, seen = [], set()
     for fl in routes:
         key = _route_emf_key(fl, src, kind, freq_hz, ground)
@@ -342,6 +335,14 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
         seen.add(key)
         x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
         todo.append((key, fl, x, phys.route_points(fl, x)))
+    return todo
+
+
+def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
+    """Put the :func:`_route_emf` of every route of ``routes`` not held yet in the memo, the source's field at all of
+    their points worked in one call (the routes of a run one source at a time: a call's own cost is that of a few
+    hundred points)."""
+    todo = _routes_not_held(routes, src, kind, freq_hz, ground)
     if len(todo) < 2:
         return
     e = placed_field(
