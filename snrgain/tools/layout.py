@@ -426,7 +426,9 @@ class Problem:
                     np.where(applies, short, 0.0),
                 )
             )
-        for name, w in zip(self.fixed_names, self.fixed_wires):
+        # the fixed wires, then the other placed wires, as violations() takes them
+        wires = [*zip(self.fixed_names, self.fixed_wires), *((o.name, self.footprint(o)) for o in others)]
+        for name, w in wires:
             if w.length > 0:
                 near = np.where(
                     shapely.intersects(shapes, w),
@@ -436,20 +438,6 @@ class Problem:
                 columns.append(
                     (
                         f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}",
-                        np.where(line, near, 0.0),
-                    )
-                )
-        for o in others:  # the other placed wires, as violations() takes them (after the fixed ones)
-            w = self.footprint(o)
-            if w.length > 0:
-                near = np.where(
-                    shapely.intersects(shapes, w),
-                    10.0,
-                    np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, w)),
-                )
-                columns.append(
-                    (
-                        f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {o.name!r}",
                         np.where(line, near, 0.0),
                     )
                 )
