@@ -428,7 +428,20 @@ def _weighted(term, w: np.ndarray) -> np.ndarray:
     return out
 
 
-_GEOMETRY: OrderedDict = OrderedDict()
+class _Kept(OrderedDict):
+    """A geometry store (:func:`_geometry`, :func:`_near_geometry`) that counts the bytes of the arrays it holds as
+    entries come and go (:func:`_keep`), so keeping one more is not a walk over every entry held."""
+
+    def __init__(self):
+        super().__init__()
+        self.nbytes = 0
+
+    def clear(self) -> None:
+        super().clear()
+        self.nbytes = 0
+
+
+_GEOMETRY = _Kept()
 _GEOMETRY_KEPT = 48
 GEOMETRY_MAX_POINTS = 20_000
 """Requests of more points (a layout's many places) have their geometry worked afresh, not kept."""
@@ -436,15 +449,23 @@ GEOMETRY_MAX_BYTES = 96 * 2**20
 """Bytes of arrays each of the two geometry stores keeps at most (one entry of 20,000 points is about 5 MB)."""
 
 
-def _keep(store: OrderedDict, key, out: tuple) -> None:
+def _keep(store: _Kept, key, out: tuple) -> None:
     """Keep ``out`` in ``store`` by ``key``, dropping the oldest past _GEOMETRY_KEPT entries or GEOMETRY_MAX_BYTES."""
+    if key in store:
+        store.nbytes -= _nbytes(store[key])
     store[key] = out
-    while len(store) > _GEOMETRY_KEPT or (len(store) > 1 and _bytes_held(store) > GEOMETRY_MAX_BYTES):
-        store.popitem(last=False)
+    store.nbytes += _nbytes(out)
+    while len(store) > _GEOMETRY_KEPT or (len(store) > 1 and store.nbytes > GEOMETRY_MAX_BYTES):
+        store.nbytes -= _nbytes(store.popitem(last=False)[1])
 
 
 def _bytes_held(store: OrderedDict) -> int:
-    return sum(a.nbytes for out in store.values() for a in _arrays(out))
+    """The bytes of every array ``store`` holds, counted afresh (what a :class:`_Kept` store's ``nbytes`` tracks)."""
+    return sum(_nbytes(out) for out in store.values())
+
+
+def _nbytes(value) -> int:
+    return sum(a.nbytes for a in _arrays(value))
 
 
 def _arrays(value):
@@ -593,7 +614,7 @@ def _remainders(tabs, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
     return got.reshape(len(tabs), n_rows, -1)
 
 
-_NEAR: OrderedDict = OrderedDict()
+_NEAR = _Kept()
 
 
 def _near_geometry(rho: np.ndarray, zeta: np.ndarray, close: np.ndarray) -> tuple:

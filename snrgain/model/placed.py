@@ -188,14 +188,94 @@ def wire_feed_currents(wire, src, freq_hz: float, feeds_m, ground, *, x_m=None, 
         to_src = np.asarray(src.position_m)[None, :] - feeds
         along = np.clip(to_src @ u, 0.0, L)
         closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
+        steps = wire_steps(wire, src, freq_hz, closest)
         grids = {}
-        for k, c in enumerate(closest):
-            x = wire_grid(wire, src, freq_hz, float(c))
-            grids.setdefault(len(x), (x, []))[1].append(k)
+        for k, n in enumerate(steps.tolist()):
+            grids.setdefault(n, (None, []))[1].append(k)
+        grids = {n: (even_samples(L, n), which) for n, (_, which) in grids.items()}
+    if len(grids) > 1:  # several sample grids: the field along all of them asked for at once
+        return _currents_on_grids(wire, src, freq_hz, feeds, ground, list(grids.values()), u, kind)
     out = np.zeros(len(feeds), dtype=complex)
     for x, which in grids.values():
         which = np.asarray(which)
         out[which] = _currents_on(wire, src, freq_hz, feeds[which], ground, x, u, kind)
+    return out
+
+
+def wire_steps(wire, src, freq_hz: float, closest_m) -> np.ndarray:
+    """The number of steps of :func:`wire_grid` (its samples less one: even) for each of the closest approaches
+    ``closest_m`` (N,) in the plan at once: :func:`snrgain.physics.reciprocity.sample_steps`' rule, element by
+    element (a layout's places each have their own)."""
+    from snrgain.physics.reciprocity import (
+        LEAST_STEPS,
+        STEPS_PER_CLOSEST,
+        STEPS_PER_LINE_WAVELENGTH,
+        STEPS_PER_WAVELENGTH,
+    )
+
+    closest = np.hypot(np.asarray(closest_m, dtype=float), src.height_m - wire.wire_height_m())
+    step = 2 * np.pi / (2 * np.pi * freq_hz / C_M_PER_S) / STEPS_PER_WAVELENGTH  # as sample_steps works it
+    gamma = wire.line(freq_hz).gamma
+    if gamma is not None:
+        step = min(step, 2 * np.pi / abs(complex(gamma)) / STEPS_PER_LINE_WAVELENGTH)
+    step = np.minimum(step, np.maximum(closest, 0.05) / STEPS_PER_CLOSEST)
+    n = np.clip(np.ceil(wire.length_m / step), LEAST_STEPS, 40_000).astype(np.int64)
+    return n + n % 2
+
+
+def _currents_on_grids(wire, src, freq_hz, feeds, ground, grids, u, kind=None) -> np.ndarray:
+    """:func:`_currents_on` of the feeds of each of ``grids`` [(samples x, indices into ``feeds``)] in a placed
+    source's field, the field asked for once for all of them: the points that :func:`_source_emfs` reads from the
+    source's tables (along the wire; up the leads of a grid of many places) in one call of each table, the rest
+    (along a wire of few points outside :func:`tabled`, up the leads of a grid of few places) worked directly in
+    one call of :func:`field_vector`.  Each grid's EMFs are those :func:`_source_emfs` gives it alone (the same
+    points, each read the same way), so the currents are :func:`_currents_on`'s; the calls' own cost is paid once
+    rather than per grid (a layout's places fall on a dozen grids, one per closest approach)."""
+    kind = kind if kind is not None else dipoles(src)[0][0]
+    least = table_min_points()
+    h = wire.wire_height_m()
+    has_leads = wire.has_leads and h > 0
+    t, wq = _lead_rule()
+    zs = (t + 1) * h / 2
+    tab_along, direct, tab_leads = [], [], []  # (grid, points) to read each way
+    for g, (x, which) in enumerate(grids):
+        f = feeds[np.asarray(which)]
+        pts = (f[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
+        (tab_along if len(pts) >= least else direct).append((g, "along", pts, np.full(len(pts), h)))
+        if has_leads:
+            ends = np.concatenate([f, f + wire.length_m * u[None, :]])
+            if len(f) > 1 and 2 * len(f) * LEAD_POINTS >= LEAD_TABLE_MIN:
+                tab_leads.append((g, ends))
+            else:
+                direct.append((g, "leads", np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, len(ends))))
+    emf: dict = {}
+    lead: dict = {}
+    if tab_along:
+        got = tabled_field_along(src, np.concatenate([p for _, _, p, _ in tab_along]), h, u, freq_hz, ground, kind=kind)
+        for (g, _, _, _), part in zip(tab_along, np.split(got, np.cumsum([len(p) for _, _, p, _ in tab_along])[:-1])):
+            emf[g] = part
+    if direct:
+        e = field_vector(
+            src,
+            np.concatenate([p for _, _, p, _ in direct]),
+            np.concatenate([z for _, _, _, z in direct]),
+            freq_hz,
+            ground,
+            kind=kind,
+        )
+        for (g, what, _, _), part in zip(direct, np.split(e, np.cumsum([len(p) for _, _, p, _ in direct])[:-1])):
+            if what == "along":
+                emf[g] = part[:, 0] * u[0] + part[:, 1] * u[1]
+            else:
+                lead[g] = (part[:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
+    if tab_leads:
+        got = tabled_lead_emfs(src, np.concatenate([e for _, e in tab_leads]), h, freq_hz, ground, kind=kind)
+        for (g, _), part in zip(tab_leads, np.split(got, np.cumsum([len(e) for _, e in tab_leads])[:-1])):
+            lead[g] = part
+    out = np.zeros(len(feeds), dtype=complex)
+    for g, (x, which) in enumerate(grids):
+        which = np.asarray(which)
+        out[which] = _through_line(wire, freq_hz, x, emf[g].reshape(len(which), -1), lead.get(g))
     return out
 
 
