@@ -226,56 +226,75 @@ def wire_steps(wire, src, freq_hz: float, closest_m) -> np.ndarray:
 def _currents_on_grids(wire, src, freq_hz, feeds, ground, grids, u, kind=None) -> np.ndarray:
     """:func:`_currents_on` of the feeds of each of ``grids`` [(samples x, indices into ``feeds``)] in a placed
     source's field, the field asked for once for all of them: the points that :func:`_source_emfs` reads from the
-    source's tables (along the wire; up the leads of a grid of many places) in one call of each table, the rest
-    (along a wire of few points outside :func:`tabled`, up the leads of a grid of few places) worked directly in
-    one call of :func:`field_vector`.  Each grid's EMFs are those :func:`_source_emfs` gives it alone (the same
-    points, each read the same way), so the currents are :func:`_currents_on`'s; the calls' own cost is paid once
-    rather than per grid (a layout's places fall on a dozen grids, one per closest approach)."""
+    source's tables (along the wire; up the leads of a grid of many places) in one read of each table, and every
+    point worked directly (along a wire of few points outside :func:`tabled`, up the leads of a grid of few places,
+    and the points the tables do not hold) in one call of :func:`field_vector`.  Each grid's EMFs are those
+    :func:`_source_emfs` gives it alone (the same points, each read the same way), so the currents are
+    :func:`_currents_on`'s; the calls' own cost is paid once rather than per grid (a layout's places fall on a dozen
+    grids, one per closest approach)."""
     kind = kind if kind is not None else dipoles(src)[0][0]
     least = table_min_points()
     h = wire.wire_height_m()
     has_leads = wire.has_leads and h > 0
     t, wq = _lead_rule()
     zs = (t + 1) * h / 2
-    tab_along, direct, tab_leads = [], [], []  # (grid, points) to read each way
-    for g, (x, which) in enumerate(grids):
+    origin = np.asarray(src.position_m, dtype=float)[None, :]
+    along_pts, along_tab, lead_ends, lead_tab = [], [], [], []
+    for x, which in grids:
         f = feeds[np.asarray(which)]
         pts = (f[:, None, :] + x[None, :, None] * u[None, None, :]).reshape(-1, 2)
-        (tab_along if len(pts) >= least else direct).append((g, "along", pts, np.full(len(pts), h)))
+        along_pts.append(pts)
+        along_tab.append(np.full(len(pts), len(pts) >= least))
         if has_leads:
-            ends = np.concatenate([f, f + wire.length_m * u[None, :]])
-            if len(f) > 1 and 2 * len(f) * LEAD_POINTS >= LEAD_TABLE_MIN:
-                tab_leads.append((g, ends))
-            else:
-                direct.append((g, "leads", np.repeat(ends, LEAD_POINTS, axis=0), np.tile(zs, len(ends))))
-    emf: dict = {}
-    lead: dict = {}
-    if tab_along:
-        got = tabled_field_along(src, np.concatenate([p for _, _, p, _ in tab_along]), h, u, freq_hz, ground, kind=kind)
-        for (g, _, _, _), part in zip(tab_along, np.split(got, np.cumsum([len(p) for _, _, p, _ in tab_along])[:-1])):
-            emf[g] = part
-    if direct:
-        e = field_vector(
-            src,
-            np.concatenate([p for _, _, p, _ in direct]),
-            np.concatenate([z for _, _, _, z in direct]),
-            freq_hz,
-            ground,
-            kind=kind,
-        )
-        for (g, what, _, _), part in zip(direct, np.split(e, np.cumsum([len(p) for _, _, p, _ in direct])[:-1])):
-            if what == "along":
-                emf[g] = part[:, 0] * u[0] + part[:, 1] * u[1]
-            else:
-                lead[g] = (part[:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
-    if tab_leads:
-        got = tabled_lead_emfs(src, np.concatenate([e for _, e in tab_leads]), h, freq_hz, ground, kind=kind)
-        for (g, _), part in zip(tab_leads, np.split(got, np.cumsum([len(e) for _, e in tab_leads])[:-1])):
-            lead[g] = part
+            ends = np.concatenate([f, f + wire.length_m * u[None, :]])  # feed ends, then far ends
+            lead_ends.append(ends)
+            lead_tab.append(np.full(len(ends), len(f) > 1 and 2 * len(f) * LEAD_POINTS >= LEAD_TABLE_MIN))
+    pts, tab = np.concatenate(along_pts), np.concatenate(along_tab)
+    emf = np.empty(len(pts), dtype=complex)
+    direct = ~tab
+    if tab.any():  # along the wire from the table at its height (tabled_field_along), the misses worked directly
+        sel = np.flatnonzero(tab)
+        got, ok = _table(src, freq_hz, ground, kind, float(h)).field(pts[sel] - origin, along=u)
+        emf[sel[ok]] = got
+        direct[sel[~ok]] = True
+    n_along = int(np.count_nonzero(direct))
+    q, z = [pts[direct]], [np.full(n_along, h)]
+    if has_leads:
+        ends, ltab = np.concatenate(lead_ends), np.concatenate(lead_tab)
+        lead = np.empty(len(ends), dtype=complex)
+        up = ~ltab
+        if ltab.any():  # up the leads from the lead table (tabled_lead_emfs), the misses worked directly
+            sel = np.flatnonzero(ltab)
+            d = ends[sel] - origin
+            key = ("lead", field_vector, _source_key(src, kind), _ground_key(ground), float(freq_hz), float(h))
+            table = _TABLES.get(key, lambda: _LeadTable(src, freq_hz, ground, kind, float(h)))
+            rho = np.hypot(d[:, 0], d[:, 1])
+            (vals,), ok = table.read(rho, ("L",))
+            if kind == "horizontal":
+                p = table.axis
+                vals = vals * ((p[0] * d[ok, 0] + p[1] * d[ok, 1]) / rho[ok])
+            lead[sel[ok]] = vals
+            up[sel[~ok]] = True
+        q.append(np.repeat(ends[up], LEAD_POINTS, axis=0))
+        z.append(np.tile(zs, int(np.count_nonzero(up))))
+    q, z = np.concatenate(q), np.concatenate(z)
+    if len(q):
+        e = field_vector(src, q, z, freq_hz, ground, kind=kind)
+        emf[direct] = e[:n_along, 0] * u[0] + e[:n_along, 1] * u[1]
+        if has_leads and up.any():
+            lead[up] = (e[n_along:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
     out = np.zeros(len(feeds), dtype=complex)
-    for g, (x, which) in enumerate(grids):
+    a0 = l0 = 0
+    for x, which in grids:
         which = np.asarray(which)
-        out[which] = _through_line(wire, freq_hz, x, emf[g].reshape(len(which), -1), lead.get(g))
+        n = len(which)
+        part = emf[a0 : a0 + n * len(x)].reshape(n, -1)
+        a0 += n * len(x)
+        lead_g = None
+        if has_leads:
+            lead_g = lead[l0 : l0 + 2 * n]
+            l0 += 2 * n
+        out[which] = _through_line(wire, freq_hz, x, part, lead_g)
     return out
 
 
