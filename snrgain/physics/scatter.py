@@ -463,6 +463,40 @@ def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: n
     return out
 
 
+def _field_along_wire(tx: TxVertical, freq_hz: float, pts, height_m: float, u: np.ndarray) -> np.ndarray:
+    """The part along the horizontal unit vector ``u`` of :func:`_field_along` at plan points (N, 2) all at
+    ``height_m`` (a wire's samples): only the radial field's table is read (the vertical field does not enter), in
+    the same arithmetic; kept as :func:`_field_along` keeps its values (the same wire asked again for every
+    resistor a termination search tries)."""
+    pts = np.ascontiguousarray(np.atleast_2d(np.asarray(pts, dtype=float)))
+    u = np.asarray(u, dtype=float)
+
+    def now():
+        d = pts - np.asarray(tx.position_m, dtype=float)[None, :]
+        rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
+        k = 2 * np.pi * freq_hz / C_M_PER_S
+        lr, grid = np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
+        j = np.searchsorted(grid, lr, side="right") - 1
+        lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)
+        e_rho, _ = _field_table(tx, freq_hz, float(height_m), lo, hi)
+        er = _interpolator(lr, grid, j)(e_rho) * np.exp(-1j * k * rho)
+        return er * d[:, 0] / rho * u[0] + er * d[:, 1] / rho * u[1]
+
+    if len(pts) > ALONG_MEMO_POINTS:
+        return now()
+    key = (
+        "along the wire",
+        _params_json(tx.vertical.params),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        float(height_m),
+        u.tobytes(),
+        pts.tobytes(),
+    )
+    return _ALONG.get(key, now)
+
+
 def _interpolator(x: np.ndarray, grid: np.ndarray, j: np.ndarray):
     """np.interp(x, grid, .) of complex tables, real and imaginary parts, with the interval j of each x found once
     (grid[j] <= x < grid[j + 1]; the same arithmetic: slope (f[j+1] - f[j]) / (grid[j+1] - grid[j]) times
@@ -497,7 +531,7 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     expression (a layout trying a design at many places); the samples along the wire are set by the closest
     approach of any of them."""
     from snrgain.antennas.longwire import port_response
-    from snrgain.physics.reciprocity import wire_currents_in_field
+    from snrgain.physics.reciprocity import through_line, wire_emfs
 
     feeds = np.atleast_2d(np.asarray(feeds_m, dtype=float))
     u = np.array([np.sin(wire.bearing_rad), np.cos(wire.bearing_rad)])
@@ -507,10 +541,14 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     step = min(C_M_PER_S / freq_hz * WIRE_STEP_WAVELENGTHS, max(closest, 1.0) / 3.0)
     x = np.linspace(0.0, wire.length_m, max(WIRE_MIN_SAMPLES, int(np.ceil(wire.length_m / step))) + 1)
 
-    def field(pts, heights):
+    def field(pts, heights):  # up the leads
         return _field_along(tx, freq_hz, pts, heights)
 
-    i_f = wire_currents_in_field(wire, freq_hz, feeds, x, field)
+    def along(pts, height):  # along the wire: the radial field's part along it alone
+        return _field_along_wire(tx, freq_hz, pts, height, u)
+
+    emf, lead = wire_emfs(wire, feeds, x, u, field, along)
+    i_f = through_line(wire, freq_hz, x, emf, lead)
     load = wire.receiver_load_ohm(freq_hz)
     return port_response(freq_hz, i_f, load_ohm=load, elevation_rad=np.full(len(feeds), 0.1)).astype(complex)
 
