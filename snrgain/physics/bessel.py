@@ -82,15 +82,15 @@ def _k0_k1_series(z: complex, *, slope: bool) -> tuple[complex, complex]:
     term, harmonic = 1 + 0j, 0.0
     i0, rest = 1 + 0j, 0j
     i1, rest1 = 0j, 0j
-    for k in range(1, 60):
+    for k in range(1, 60):  # harmonic >= 1 from k = 1 on: the stop below is |t_k| H_k < 1e-17 |I0|
         term *= q / (k * k)
         harmonic += 1.0 / k
         i0 += term
-        rest += term * harmonic
-        if slope:
-            i1 += k * term
-            rest1 += (k * harmonic) * term
-        if abs(term) * max(harmonic, 1.0) < 1e-17 * abs(i0):
+        weighted = term * harmonic
+        rest += weighted
+        i1 += k * term
+        rest1 += k * weighted
+        if abs(weighted) < 1e-17 * abs(i0):
             break
     log = cmath.log(0.5 * z) + EULER_GAMMA
     k0_value = complex(-log * i0 + rest)
