@@ -175,11 +175,24 @@ def _mean_inverse_distance(centres, vectors, radius_m, sources=None):
     src_c, src_v = (centres, vectors) if sources is None else sources
     cx, cz = centres[:, 0][:, None], centres[:, 1][:, None]
     lens = np.hypot(src_v[:, 0], src_v[:, 1])
-    out = np.zeros((len(centres), len(src_c)))
-    for t, w in zip(_GL3_X, _GL3_W):
+    shape = (len(centres), len(src_c))
+    out, dx, dz = np.zeros(shape), np.empty(shape), np.empty(shape)
+    d2 = None
+    for t, w in zip(_GL3_X, _GL3_W):  # in place: the same arithmetic as (0.5 w) / sqrt(dx^2 + dz^2 + a^2)
         px, pz = src_c[:, 0] + 0.5 * t * src_v[:, 0], src_c[:, 1] + 0.5 * t * src_v[:, 1]
-        out += (0.5 * w) / np.sqrt((cx - px) ** 2 + (cz - pz) ** 2 + radius_m**2)
-    d2 = (cx - src_c[:, 0]) ** 2 + (cz - src_c[:, 1]) ** 2
+        np.subtract(cx, px, out=dx)
+        dx *= dx
+        np.subtract(cz, pz, out=dz)
+        dz *= dz
+        dx += dz
+        if t == 0.0:  # the middle point is the centre: its squared distance is the one the near test needs
+            d2 = dx.copy()
+        dx += radius_m**2
+        np.sqrt(dx, out=dx)
+        np.divide(0.5 * w, dx, out=dx)
+        out += dx
+    if d2 is None:  # pragma: no cover - the 3-point rule's middle point is 0
+        d2 = (cx - src_c[:, 0]) ** 2 + (cz - src_c[:, 1]) ** 2
     ii, jj = np.nonzero(d2 < (NEAR_LENGTHS * lens[None, :]) ** 2)
     pts = src_c[jj][:, None, :] + (0.5 * _GL_X)[None, :, None] * src_v[jj][:, None, :]
     r = np.sqrt(np.sum((centres[ii][:, None, :] - pts) ** 2, axis=-1) + radius_m**2)
@@ -245,11 +258,13 @@ def _loop_matrices(upper, lower, radius_m: float):
     p_own = _mean_inverse_distance(c, v, radius_m)
     p_own[idx, idx] = 2 * np.arcsinh(lengths / (2 * radius_m)) / lengths  # exact mean of 1/r on its own centre
     p_image = _mean_inverse_distance(c, v, radius_m, (c * [1.0, -1.0], v * [1.0, -1.0]))
-    # Neumann: the closed loop, upper path out and lower path back
-    loop_c = np.vstack([cu, cl[::-1]])
+    # Neumann: the closed loop, upper path out and lower path back.  Its segments are the same as the halves', the
+    # lower half's taken in reverse order and direction: the mean inverse distances are P0's, rows and columns
+    # reordered (a segment's mean does not depend on its direction but for the order its points are summed in)
+    loop = np.concatenate([np.arange(len(lu)), np.arange(len(lengths) - 1, len(lu) - 1, -1)])
     loop_v = np.vstack([vu, -vl[::-1]])
     loop_l = np.concatenate([lu, ll[::-1]])
-    m = _mean_inverse_distance(loop_c, loop_v, radius_m) * np.einsum("ik,jk->ij", loop_v, loop_v)
+    m = p_own[np.ix_(loop, loop)] * np.einsum("ik,jk->ij", loop_v, loop_v)
     m[idx, idx] = 2 * np.arcsinh(loop_l / (2 * radius_m)) * loop_l
     inductance = MU0_H_PER_M / (4 * np.pi) * float(m.sum())
     return inductance, p_own, p_image, c[:, 1].copy(), len(lu)
