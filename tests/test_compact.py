@@ -392,9 +392,10 @@ def test_phase_sense_is_explicit_and_a_reversed_array_is_flagged(tmp_path):
 
 @pytest.mark.parametrize("shape", ["rectangle", "triangle", "delta", "diamond"])
 def test_loop_inductance_reads_the_halves_potential_matrix(shape):
-    # termloop._loop_matrices takes Neumann's mean inverse distances from the halves' matrix P0, reordered (the
-    # lower half reversed), instead of summing them again: against the loop's own segments summed afresh the
-    # inductance agrees to round-off (measured: bit-identical on these outlines).  The in-place 3-point sums equal
+    # termloop._loop_matrices takes Neumann's double sum as quadratic forms of the halves' matrix P0 (the lower
+    # half's vectors negated) instead of summing the loop's mean inverse distances again: against the loop's own
+    # segments summed afresh the inductance agrees to round-off (measured: 2.2e-16 relative at most over 4 shapes,
+    # 4 sizes, 2 radii).  The in-place 3-point sums equal
     # the plain expression's bit for bit (the image's matrix: every pair far apart).
     from snrgain.antennas import termloop as tl
 

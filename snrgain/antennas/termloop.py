@@ -258,15 +258,13 @@ def _loop_matrices(upper, lower, radius_m: float):
     p_own = _mean_inverse_distance(c, v, radius_m)
     p_own[idx, idx] = 2 * np.arcsinh(lengths / (2 * radius_m)) / lengths  # exact mean of 1/r on its own centre
     p_image = _mean_inverse_distance(c, v, radius_m, (c * [1.0, -1.0], v * [1.0, -1.0]))
-    # Neumann: the closed loop, upper path out and lower path back.  Its segments are the same as the halves', the
-    # lower half's taken in reverse order and direction: the mean inverse distances are P0's, rows and columns
-    # reordered (a segment's mean does not depend on its direction but for the order its points are summed in)
-    loop = np.concatenate([np.arange(len(lu)), np.arange(len(lengths) - 1, len(lu) - 1, -1)])
-    loop_v = np.vstack([vu, -vl[::-1]])
-    loop_l = np.concatenate([lu, ll[::-1]])
-    m = p_own[np.ix_(loop, loop)] * np.einsum("ik,jk->ij", loop_v, loop_v)
-    m[idx, idx] = 2 * np.arcsinh(loop_l / (2 * radius_m)) * loop_l
-    inductance = MU0_H_PER_M / (4 * np.pi) * float(m.sum())
+    # Neumann: the closed loop, upper path out and lower path back: L = mu0 / 4 pi sum_ij M_ij (t_i . t_j), M_ij the
+    # mean inverse distance between segments i and j, t their vectors along the loop.  Those segments are the
+    # halves' with the lower half reversed (its vectors negated), and a segment's mean inverse distance does not
+    # depend on its direction, so M is P0 (its diagonal, the exact self term, times |t_i|^2 = l_i^2 is Neumann's
+    # 2 l asinh(l / 2a) too) and the double sum is two quadratic forms of P0.
+    along = v * np.where(idx < len(lu), 1.0, -1.0)[:, None]
+    inductance = MU0_H_PER_M / (4 * np.pi) * float(np.sum(along * (p_own @ along)))
     return inductance, p_own, p_image, c[:, 1].copy(), len(lu)
 
 
