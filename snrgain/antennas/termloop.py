@@ -193,6 +193,8 @@ def _mean_inverse_distance(centres, vectors, radius_m, sources=None):
         out += dx
     if d2 is None:  # pragma: no cover - the 3-point rule's middle point is 0
         d2 = (cx - src_c[:, 0]) ** 2 + (cz - src_c[:, 1]) ** 2
+    if d2.min() >= (NEAR_LENGTHS * lens.max()) ** 2:  # no pair near (the image's matrix): no search
+        return out
     ii, jj = np.nonzero(d2 < (NEAR_LENGTHS * lens[None, :]) ** 2)
     pts = src_c[jj][:, None, :] + (0.5 * _GL_X)[None, :, None] * src_v[jj][:, None, :]
     r = np.sqrt(np.sum((centres[ii][:, None, :] - pts) ** 2, axis=-1) + radius_m**2)
