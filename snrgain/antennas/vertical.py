@@ -67,7 +67,7 @@ from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, registe
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import GroundField, make_ground, quantity
 from snrgain.memo import Memo
-from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, vertical_reflection
 from snrgain.physics.quadrature import gauss_legendre
 
 MAX_HEIGHT_WAVELENGTHS = 0.625
@@ -218,16 +218,16 @@ class Vertical(Antenna):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
         geo = direction_geometry(az, el)
-        r_v, _ = reflection_coefficients(self.ground, geo.el_u, freq_hz)
+        r_v = vertical_reflection(self.ground, geo.s_u, geo.c_u, freq_hz)
         f = self._form_factor(k, geo.s_u, r_v)
         p_rad, i_sq = self._power_terms(freq_hz)
         # |e|^2 = 4 pi U / P_in with U = eta0 k^2 / (32 pi^2) cos^2(psi) |F|^2.
         scale = np.sqrt(4 * np.pi * ETA0_OHM * k**2 / (32 * np.pi**2) / (p_rad + 0.5 * i_sq * self.ground_loss_ohm))
-        return scale * geo.c_u * f, geo.inv, above_horizon(el)
+        return scale * geo.c_u * f, geo.inv, (None if geo.all_up else above_horizon(el))
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
-        ev = np.where(up, e[inv], 0.0)
+        ev = e[inv] if up is None else np.where(up, e[inv], 0.0)
         return ev, np.zeros_like(ev)
 
     def transmit_segments(self, freq_hz: float):
@@ -277,7 +277,7 @@ class Vertical(Antenna):
     def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
         e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
         p = (e.real * e.real + e.imag * e.imag)[inv]
-        return p if up.all() else np.where(up, p, 0.0)
+        return p if up is None else np.where(up, p, 0.0)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         gv = self.gain_linear(freq_hz, azimuth_rad, elevation_rad)
