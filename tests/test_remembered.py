@@ -79,3 +79,48 @@ def test_loop_constants_read_back_equal_the_solution(cache_dir, monkeypatch):
     monkeypatch.setattr(termloop, "_solve_loop_constants", no_solve)
     assert termloop._loop_constants(*key) == solved  # read back, to the bit
     termloop._loop_constants.cache_clear()
+
+
+def test_wire_modes_read_back_equal_the_solver(cache_dir, monkeypatch):
+    from snrgain.physics import lines, modal
+    from snrgain.physics.ground import Ground
+
+    loam = Ground(0.005, 13.0, "moist loam")
+
+    def constants():
+        return lines.overhead_wire(1.83e6, radius_m=0.001, height_m=2.5, ground=loam), lines.insulated_on_ground(
+            1.83e6, radius_m=0.0008, insulation_radius_m=0.0016, insulation_permittivity=3.5, ground=loam
+        )
+
+    lines._mode.cache_clear()
+    modal.wire_over_earth.cache_clear()
+    first = constants()
+    assert len(list(cache_dir.glob("wiremode-*.npy"))) == 2
+    lines._mode.cache_clear()
+
+    def no_solve(*a):
+        raise AssertionError("solved again")
+
+    monkeypatch.setattr(modal, "wire_over_earth", no_solve)
+    again = constants()
+    for a, b in zip(first, again):
+        assert a == b  # to the bit
+    lines._mode.cache_clear()
+
+
+def test_thin_wire_current_read_back_equals_the_solution(cache_dir, monkeypatch):
+    from snrgain.antennas import vertical
+
+    args = (1.83e6, 6.0, 0.0125, complex(0.91, -0.02))
+    vertical._CURRENTS.clear()
+    z0, i0 = vertical.thin_wire_current(*args)
+    np.testing.assert_array_equal(i0, vertical._solve_current(*args, len(z0)))
+    vertical._CURRENTS.clear()
+
+    def no_solve(*a):
+        raise AssertionError("solved again")
+
+    monkeypatch.setattr(vertical, "_solve_current", no_solve)
+    z1, i1 = vertical.thin_wire_current(*args)
+    assert z1.tobytes() == z0.tobytes() and i1.tobytes() == i0.tobytes()
+    vertical._CURRENTS.clear()
