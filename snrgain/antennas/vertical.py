@@ -121,31 +121,63 @@ def thin_wire_current(freq_hz: float, height_m: float, radius_m: float, image: c
     ground; :func:`image_coefficient`): Hallen's equation with the reduced kernel,
     integral I(z') [K(z - z') + image K(z + z')] dz' = -j (4 pi / eta0) [C cos kz + sin kz], matched at the pulses'
     centres and at the tip (the unknowns the currents and C).  The pulses' offsets repeat, so the kernel is worked
-    once per offset."""
+    once per offset.  The currents are kept in the persistent cache too (:func:`noisemodels.skycache.remembered`,
+    kind "wirecurrent"): a later run reads them back, to the bit."""
     key = (float(freq_hz), float(height_m), float(radius_m), complex(image))
 
     def make():
         n = pulses(height_m, radius_m)
         if n < 2:
             raise ValueError(f"height: {height_m:g} m is too short for a wire of {radius_m:g} m radius")
-        k = 2 * np.pi * freq_hz / C_M_PER_S
         dz = height_m / n
-        # K at offsets m dz / 2, m = 0 .. 4n: centre to centre (even m), tip to centre (odd m), images beyond
-        p = _pulse_kernel(k, 0.5 * dz * np.arange(4 * n + 2), dz, radius_m)
         i = np.arange(n)
-        a = np.zeros((n + 1, n + 1), dtype=complex)
-        a[:n, :n] = p[2 * np.abs(i[:, None] - i[None, :])] + image * p[2 * (i[:, None] + i[None, :] + 1)]
-        a[n, :n] = p[2 * n - 2 * i - 1] + image * p[2 * n + 2 * i + 1]  # the tip, h - z_j and h + z_j
-        zm = np.concatenate([(i + 0.5) * dz, [height_m]])
-        a[:, n] = 1j * 4 * np.pi / ETA0_OHM * np.cos(k * zm)
-        b = -1j * 4 * np.pi / ETA0_OHM * np.sin(k * zm)
-        current = np.linalg.solve(a, b)[:n]
+        current = _remembered_current(key, n, lambda: _solve_current(freq_hz, height_m, radius_m, image, n))
         z = (i + 0.5) * dz
         z.flags.writeable = False
         current.flags.writeable = False
         return z, current
 
     return _CURRENTS.get(key, make)
+
+
+THIN_WIRE_VERSION = 1
+"""Part of the persistent cache's key of :func:`thin_wire_current`; bump it when what it holds changes in a way the
+key's code digest (this module's, the ground's and the quadrature's sources) would not show."""
+
+
+def _remembered_current(key: tuple, n: int, solve) -> np.ndarray:
+    """The solved current (n,) for ``key`` (frequency, height, radius, image): from the persistent cache, or
+    ``solve()``."""
+    from noisemodels import skycache
+    from snrgain.physics import ground, quadrature
+
+    disk_key = {
+        "version": THIN_WIRE_VERSION,
+        "code": skycache.code_digest(__file__, ground.__file__, quadrature.__file__),
+        "wire": list(key),
+        "pulses": n,
+        "kernel_points": _KERNEL_POINTS,
+    }
+    current = skycache.remembered("wirecurrent", disk_key, solve)
+    if current.dtype != complex or current.shape != (n,):  # not what this code writes: solved afresh
+        current = solve()
+    return current
+
+
+def _solve_current(freq_hz: float, height_m: float, radius_m: float, image: complex, n: int) -> np.ndarray:
+    """The currents (n,) of :func:`thin_wire_current`, solved."""
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    dz = height_m / n
+    # K at offsets m dz / 2, m = 0 .. 4n: centre to centre (even m), tip to centre (odd m), images beyond
+    p = _pulse_kernel(k, 0.5 * dz * np.arange(4 * n + 2), dz, radius_m)
+    i = np.arange(n)
+    a = np.zeros((n + 1, n + 1), dtype=complex)
+    a[:n, :n] = p[2 * np.abs(i[:, None] - i[None, :])] + image * p[2 * (i[:, None] + i[None, :] + 1)]
+    a[n, :n] = p[2 * n - 2 * i - 1] + image * p[2 * n + 2 * i + 1]  # the tip, h - z_j and h + z_j
+    zm = np.concatenate([(i + 0.5) * dz, [height_m]])
+    a[:, n] = 1j * 4 * np.pi / ETA0_OHM * np.cos(k * zm)
+    b = -1j * 4 * np.pi / ETA0_OHM * np.sin(k * zm)
+    return np.linalg.solve(a, b)[:n]
 
 
 class VerticalParams(AntennaParams):
