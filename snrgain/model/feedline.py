@@ -223,10 +223,13 @@ def feed_point(antenna, reference_m=None) -> tuple[float, float]:
     )
 
 
-def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
+def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None) -> Prepared | None:
     """The couplings of every antenna with a feed line (``sc.feed_lines``, by name, its route starting where the
     antenna stands) and their pickup of each placed source; ``powers``: the antennas' own (snrgain.model.placed.pickup),
-    whose reference entry scales the feed lines'.  None when no antenna has one."""
+    whose reference entry scales the feed lines'.  ``own``: (source name, kind) -> (antennas,) complex, the antennas'
+    own (vertical) amplitudes from each placed source's dipole where the caller has them (a termination search's
+    resistors, from its form), else snrgain.model.placed.received_amplitudes' (kept there).  None when no antenna has
+    one."""
     from snrgain.model import placed
 
     feeds = getattr(sc, "feed_lines", None) or {}
@@ -254,7 +257,10 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
                 p[k] += abs(b) ** 2
                 if out[k][2]:  # coherent: one source drives both, their currents in the load add as phasors
                     # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
-                    a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
+                    if own is not None:
+                        a = own[src.name, kind][k]
+                    else:
+                        a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
                     d[k] += abs(a + b) ** 2 - abs(a) ** 2
                 else:
                     d[k] += abs(b) ** 2
