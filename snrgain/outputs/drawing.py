@@ -36,6 +36,19 @@ ENV_WORKERS = "SNRGAIN_WORKERS"
 _JOBS: Sequence[tuple[Callable, str, dict]] = ()
 """The jobs of the current drawing, read by forked workers (set before the pool forks)."""
 
+DRAWING_RC = {"text.hinting": "none"}
+"""matplotlib settings the command line's figures are drawn with (:func:`draw_all`, :class:`Drawer`): glyphs drawn
+unhinted (as the SVG writer's text paths already are) cost less to render than through the fonts' hinting
+programs (a tenth of a PNG figure's time); the letters stand on fractional pixels, a line of text a pixel or two
+wider or narrower."""
+
+
+def drawing_settings():
+    """A context in which matplotlib draws with :data:`DRAWING_RC` (restored after)."""
+    import matplotlib as mpl
+
+    return mpl.rc_context(DRAWING_RC)
+
 
 def figure_bytes(fig, fmt: str, **savefig) -> bytes:
     """One figure serialised as PNG or SVG (:func:`save_figure`).
@@ -357,6 +370,14 @@ def _worker_start(parent: int) -> None:
         os._exit(1)
 
 
+def _drawing_worker_start(parent: int) -> None:
+    """:func:`_worker_start`, and matplotlib set to draw with :data:`DRAWING_RC` (the worker's own settings)."""
+    import matplotlib as mpl
+
+    _worker_start(parent)
+    mpl.rcParams.update(DRAWING_RC)
+
+
 def _run(index: int) -> bytes:
     make, fmt, savefig = _JOBS[index]
     return figure_bytes(make(), fmt, **savefig)
@@ -395,11 +416,12 @@ def draw_all(
     n = workers(len(jobs))
     out: list[bytes] = []
     if n <= 1:
-        for make, fmt, savefig in jobs:
-            out.append(figure_bytes(make(), fmt, **savefig))
-            if done:
-                done()
-            stop_if_asked()
+        with drawing_settings():
+            for make, fmt, savefig in jobs:
+                out.append(figure_bytes(make(), fmt, **savefig))
+                if done:
+                    done()
+                stop_if_asked()
         return out
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
@@ -408,7 +430,7 @@ def draw_all(
     pool = ProcessPoolExecutor(
         max_workers=n,
         mp_context=multiprocessing.get_context("fork"),
-        initializer=_worker_start,
+        initializer=_drawing_worker_start,
         initargs=(os.getpid(),),
     )
     try:
@@ -552,6 +574,9 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
     # reach, its passes while the figures are drawn walk only the figures' own objects (a full pass over
     # matplotlib's and the results' objects took 50-90 ms in a worker).
     gc.freeze()
+    import matplotlib as mpl
+
+    mpl.rcParams.update(DRAWING_RC)  # the helper's own settings, for what it draws ahead
     early: dict[str, bytes] = {}
     steps: list = []  # preparations given as iterators, taken a step at a time while no message waits
     while True:
