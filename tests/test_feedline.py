@@ -808,3 +808,23 @@ def test_the_build_line_says_what_the_shield_meets_at_each_antenna(compact_runs)
     assert "shield meets the loop itself, over the earth" in said["flag"]
     assert "shield meets the loop itself, over the earth" in said["loop"]
     assert "shield meets the phasing unit's ground (assumed 50 ohm)" in said["pair"]
+
+
+def test_a_scenarios_check_reads_each_antennas_end_without_working_it_out():
+    # end_kind (the loader's check) names the end antenna_end works out, and refuses what it refuses, with its words
+    from snrgain.model.feedline import end_kind
+    from snrgain.scenario import load
+
+    sc = load(SCEN.format(site="", feed="") + COMPACT.format(f=""))
+    words = {"rod": "feed ground rod", "radials": "radial system", "flag": "loop itself", "small loop": "loop itself"}
+    words["phasing unit"] = "phasing unit"
+    kinds = {}
+    for ant in sc.candidates:
+        kinds[ant.name] = end_kind(ant)
+        assert words[kinds[ant.name]] in antenna_end(ant, sc.freq_hz, sc.site.ground)[1], ant.name
+    assert kinds["whip"] == "radials" and kinds["flag"] == "flag" and kinds["loop"] == "small loop"
+    assert kinds["pair"] == "phasing unit" and kinds["bev"] == "rod"
+    iso = from_spec({"family": "isotropic", "position": [0, 0]})
+    for fn in (end_kind, lambda a: antenna_end(a, F, GROUND)):
+        with pytest.raises(ValueError, match="isotropic has neither"):
+            fn(iso)

@@ -85,6 +85,12 @@ def test_graded_samples_and_their_rule():
     from snrgain.physics.quadrature import samples_rule
 
     np.testing.assert_allclose(rc.pairs_rule(xe), samples_rule(xe), rtol=1e-12)
+    # kept by the samples: the same weights as worked afresh, read-only, for a copy of the samples too
+    rc._RULES.clear()
+    fresh = rc.pairs_rule(x)
+    again = rc.pairs_rule(np.array(x))
+    assert again is fresh and not fresh.flags.writeable
+    np.testing.assert_array_equal(fresh, w)
 
 
 def test_a_termination_searchs_resistors_in_one_pass_equal_each_alone():

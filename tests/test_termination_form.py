@@ -116,6 +116,46 @@ def test_a_wire_with_a_feed_line_takes_the_form_with_its_feed_line_worked_apart(
     later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.4, 0.77, 1.3, 2.2])]
     got = np.concatenate([score(variants), score(later)])
     assert score.feed_lines and score.model is not None and not score.direct
+    assert score.amplitudes is not None  # the wire's own amplitudes from the source took the form too
+    want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants + later], k, ti)
+    assert np.max(np.abs(got - want)) < 1e-9  # dB
+
+
+FEED = 'feed_line = { to = ["0 m", "0 m"], height = "1 m" }\n'
+
+
+def test_the_own_amplitudes_form_gives_the_feed_lines_part_as_the_sources_pickup_worked_anew(tmp_path):
+    # a wire's own amplitude from a placed source is e_p(R) (A + R B) / (1 + R delta): the placed sources' part with
+    # the feed line worked from it equals the part worked in full (the sources' pickup along the wire anew) to rounding
+    text = CANDIDATES.replace(
+        'bearing = 45\n\n[[candidate]]\nname = "bog"', f'bearing = 45\n{FEED}\n[[candidate]]\nname = "bog"'
+    )
+    sc, grid, skies = _scenario(tmp_path, text)
+    k = [a.name for a in sc.antennas].index("bev")
+    score, ref, put, ti = _score(sc, grid, skies, k)
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    score([variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)])
+    assert score.amplitudes is not None
+    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.3, 0.9, 1.7, 2.6])]
+    probes = [score._probe_response(v) for v in later]
+    fast = score._placed(later, own=score._own_amplitudes(later, probes))
+    full = score._placed(later)
+    np.testing.assert_allclose(fast, full, rtol=1e-12, atol=0)
+
+
+def test_a_flags_feed_line_whose_own_pickup_is_not_of_the_form_is_worked_in_full(tmp_path):
+    # a loop's pickup of a near source through its halves' currents is not of the wire's form: the own amplitudes'
+    # form is refused on its check, and the placed sources' part with the feed line is worked for every resistor
+    text = CANDIDATES.replace('termination = "auto"\n', f'termination = "auto"\n{FEED}')
+    assert text != CANDIDATES
+    sc, grid, skies = _scenario(tmp_path, text)
+    k = [a.name for a in sc.antennas].index("flag")
+    score, ref, put, ti = _score(sc, grid, skies, k)
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.4, 0.77, 1.3, 2.2])]
+    got = np.concatenate([score(variants), score(later)])
+    assert score.feed_lines and score.model is not None and not score.direct and score.amplitudes is None
     want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants + later], k, ti)
     assert np.max(np.abs(got - want)) < 1e-6  # dB
 

@@ -74,14 +74,22 @@ def antenna_loads(antenna, freq_hz: float) -> tuple[float, complex, float]:
     """(feed ground rod, the antenna's own loop Z_in + Z_load, the receiver's load through the transformer) [ohm];
     ValueError for an antenna without a feed ground."""
     rod = getattr(antenna, "feed_rod_ohm", None)
-    if rod is None or not hasattr(antenna, "feed_point_impedance") or not hasattr(antenna, "receiver_load_ohm"):
-        raise ValueError(
-            "the feed line's coupling is modelled through the antenna's feed ground rod and transformer (the long "
-            f"wires); a {antenna.family} has neither"
-        )
+    if rod is None or not _has_loads(antenna):
+        raise _no_loads(antenna)
     load = float(antenna.receiver_load_ohm(freq_hz))
     z_in = complex(antenna.feed_point_impedance(freq_hz)) - rod
     return float(rod), z_in + load, load
+
+
+def _has_loads(antenna) -> bool:
+    return hasattr(antenna, "feed_point_impedance") and hasattr(antenna, "receiver_load_ohm")
+
+
+def _no_loads(antenna) -> ValueError:
+    return ValueError(
+        "the feed line's coupling is modelled through the antenna's feed ground rod and transformer (the long "
+        f"wires); a {antenna.family} has neither"
+    )
 
 
 PHASING_UNIT_GROUND_OHM = 50.0
@@ -112,28 +120,46 @@ def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
     Where the wiring fixes no sign between the feed line's path and the antenna's own (a loop's terminals, a phasing
     unit's), the two add in power for a placed source (the mean over the two ways of wiring it)."""
     f = float(freq_hz)
-    if antenna.composite:
-        raise ValueError(
-            f"a feed line belongs to one of the antennas a {antenna.family} combines, not to the combination"
-        )
-    if getattr(antenna, "feed_rod_ohm", None) is not None:
+    kind = end_kind(antenna)
+    if kind == "rod":
         rod, loop, load = antenna_loads(antenna, f)
         return phys.grounded_end(rod_ohm=rod, loop_ohm=loop, load_ohm=load), f"its feed ground rod ({rod:g} ohm)", False
-    if antenna.phased and getattr(antenna, "elements", None):
+    if kind == "phasing unit":
         end = phys.grounded_end(rod_ohm=PHASING_UNIT_GROUND_OHM, loop_ohm=2 * ARRAY_PORT_OHM, load_ohm=ARRAY_PORT_OHM)
         return (
             phys.replace_end(end, coherent=False),
             f"the phasing unit's ground (assumed {PHASING_UNIT_GROUND_OHM:g} ohm)",
             True,
         )
-    if hasattr(antenna, "radiation_resistance_ohm") and hasattr(antenna, "ground_loss_ohm"):
+    if kind == "radials":
         r_rad, r_g = float(antenna.radiation_resistance_ohm(f)), float(antenna.ground_loss_ohm)
         end = phys.grounded_end(rod_ohm=r_g, loop_ohm=2 * r_rad + r_g, load_ohm=r_rad + r_g)
         return end, f"its radial system or rod (ground_loss {r_g:g} ohm)", False
-    if hasattr(antenna, "termination_ohm") and hasattr(antenna, "statics"):
+    if kind == "flag":
         return _flag_end(antenna, f), "the loop itself, over the earth (no ground at its feed)", False
+    return _small_loop_end(antenna, f), "the loop itself, over the earth (no ground at its feed)", False
+
+
+def end_kind(antenna) -> str:
+    """Which of :func:`antenna_end`'s ends an antenna's feed line meets ("rod", "phasing unit", "radials", "flag",
+    "small loop"), read from what the antenna exposes without working the end out (its loads, a loop's capacitance):
+    what a scenario's check needs; ValueError, as :func:`antenna_end` raises it, for one that takes no feed line."""
+    if antenna.composite:
+        raise ValueError(
+            f"a feed line belongs to one of the antennas a {antenna.family} combines, not to the combination"
+        )
+    if getattr(antenna, "feed_rod_ohm", None) is not None:
+        if not _has_loads(antenna):
+            raise _no_loads(antenna)
+        return "rod"
+    if antenna.phased and getattr(antenna, "elements", None):
+        return "phasing unit"
+    if hasattr(antenna, "radiation_resistance_ohm") and hasattr(antenna, "ground_loss_ohm"):
+        return "radials"
+    if hasattr(antenna, "termination_ohm") and hasattr(antenna, "statics"):
+        return "flag"
     if hasattr(antenna, "input_resistance_ohm") and hasattr(antenna, "area_m2"):
-        return _small_loop_end(antenna, f), "the loop itself, over the earth (no ground at its feed)", False
+        return "small loop"
     raise ValueError(
         "a feed line is modelled on the long wires, verticals, loops and arrays (through the feed's ground or the "
         f"loop's capacitance to the earth); a {antenna.family} has neither"
@@ -197,10 +223,13 @@ def feed_point(antenna, reference_m=None) -> tuple[float, float]:
     )
 
 
-def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
+def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None) -> Prepared | None:
     """The couplings of every antenna with a feed line (``sc.feed_lines``, by name, its route starting where the
     antenna stands) and their pickup of each placed source; ``powers``: the antennas' own (snrgain.model.placed.pickup),
-    whose reference entry scales the feed lines'.  None when no antenna has one."""
+    whose reference entry scales the feed lines'.  ``own``: (source name, kind) -> (antennas,) complex, the antennas'
+    own (vertical) amplitudes from each placed source's dipole where the caller has them (a termination search's
+    resistors, from its form), else snrgain.model.placed.received_amplitudes' (kept there).  None when no antenna has
+    one."""
     from snrgain.model import placed
 
     feeds = getattr(sc, "feed_lines", None) or {}
@@ -228,7 +257,10 @@ def prepare(sc, antennas, powers: dict, *, ground=None) -> Prepared | None:
                 p[k] += abs(b) ** 2
                 if out[k][2]:  # coherent: one source drives both, their currents in the load add as phasors
                     # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
-                    a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
+                    if own is not None:
+                        a = own[src.name, kind][k]
+                    else:
+                        a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
                     d[k] += abs(a + b) ** 2 - abs(a) ** 2
                 else:
                     d[k] += abs(b) ** 2

@@ -143,9 +143,13 @@ class TerminationScore:
     through its segments' currents is not of the form to 1e-7, so it is then worked for every resistor (the
     source's pickup alone, :func:`snrgain.model.placed.pickup`).  A feed line's part (its sky part through its route,
     and what it changes of the placed sources' part) is not of the form either: it goes with the placed sources'
-    part, worked for every resistor (snrgain.model.feedline: prepare, sky_cells; the route's sky part once) and
-    checked against the products' own on the five resistors worked in full (else every resistor is).  The statistic
-    is :func:`_median_gains`'s, from the same gains and temperatures (to rounding)."""
+    part (snrgain.model.feedline: prepare, sky_cells; the route's sky part once), checked against the products' own
+    on the five resistors worked in full (else every resistor is).  The antenna's own amplitude from each placed
+    source's dipole is of the form too, a_s(R) = e_p(R) (A_s + R B_s) / (1 + R delta) with e_p the probe response:
+    A_s and B_s are fitted once per wire on the three resistors' amplitudes (the products' own), checked on all five,
+    and each other resistor's feed line is then worked from them (its coupling, a few numbers) instead of the
+    sources' pickup along the wire anew; where that does not hold to CHECK_RTOL, the placed sources' part is worked
+    in full.  The statistic is :func:`_median_gains`'s, from the same gains and temperatures (to rounding)."""
 
     CHECK_RTOL = 1e-7
 
@@ -156,6 +160,9 @@ class TerminationScore:
         self.placed_formed = False  # the placed sources' part follows the form too
         self.feed_lines = False  # the candidate has a feed line (its part goes with the placed sources')
         self.routes_sky: dict = {}  # its route's sky part (feedline.sky_cells), the same for every resistor
+        self.amplitudes = None  # (source name, kind) -> (A, B) (2,) each: the own amplitudes' form, where it holds
+        self.reference_powers = None  # source name -> the reference's own power (the products' feed lines')
+        self._worked_ants: list = []  # the antennas the last pass of the products took (their amplitudes kept)
 
     def __call__(self, variants) -> np.ndarray:
         variants = list(variants)
@@ -186,7 +193,9 @@ class TerminationScore:
         by = p.temps.by_component[:, 1:].reshape(p.temps.by_component.shape[0], n, -1)
         apart = by[rows].sum(axis=0)
         self.feed_lines = p.feed_lines is not None
+        self._worked_ants = ants
         if self.feed_lines:  # the sky rows of effect are the feed line's own sky part (snrgain.model.feedline.added)
+            self.reference_powers = p.feed_lines.prepared.reference_powers
             fl_sky = np.delete(p.feed_lines.effect[:, 1:].reshape(by.shape), rows, axis=0)
             sky = (np.delete(by, rows, axis=0) - fl_sky).sum(axis=0)
             apart = apart + fl_sky.sum(axis=0)
@@ -197,10 +206,13 @@ class TerminationScore:
     def _placed_rows(self) -> list[int]:
         return [self.skies.names.index(s.name) for s in self.sc.noise.local if s.position_m is not None]
 
-    def _placed(self, variants) -> np.ndarray:
+    def _placed(self, variants, own: dict | None = None) -> np.ndarray:
         """(variants, cells): each variant's temperature from the placed sources, worked in full (their pickup where
         the antenna stands, :func:`snrgain.model.placed.pickup`; the reference's share as the products take it), and
-        with a feed line what it adds (snrgain.model.feedline: its share of the placed sources, its sky part)."""
+        with a feed line what it adds (snrgain.model.feedline: its share of the placed sources, its sky part).
+        ``own``: the variants' own amplitudes from each placed source's dipole ((source name, kind) -> (variants,
+        2) complex, :meth:`_own_amplitudes`) instead of their pickup (with a feed line; the reference's power the
+        products')."""
         from snrgain.model import feedline, placed, snr
 
         n = len(variants)
@@ -209,8 +221,20 @@ class TerminationScore:
             return np.zeros((n, cells))
         sub = with_candidates(self.sc, variants, self.k)
         ants = [self.ref.antennas[0], *[self.put(a) for a in variants]]
-        shares, powers = placed.pickup(sub, ants)
-        prep = feedline.prepare(sub, ants, powers) if self.feed_lines else None
+        if own is None:
+            shares, powers = placed.pickup(sub, ants)
+            prep = feedline.prepare(sub, ants, powers) if self.feed_lines else None
+        else:  # a share is P / P_ref times the source's scale, which the ratio below drops
+            shares, powers, vertical = {}, {}, {}
+            for name, p_ref in self.reference_powers.items():
+                p = np.zeros(n + 1)
+                p[0] = p_ref
+                for (src, kind), a in own.items():
+                    if src == name:
+                        p[1:] += np.abs(a[:, 0]) ** 2 + np.abs(a[:, 1]) ** 2
+                        vertical[src, kind] = np.concatenate([[0j], a[:, 0]])
+                powers[name], shares[name] = p, p / p_ref
+            prep = feedline.prepare(sub, ants, powers, own=vertical)
         shares = feedline.shares_with(prep, shares)
         out = np.zeros((n, cells))
         for name, share in shares.items():
@@ -294,10 +318,13 @@ class TerminationScore:
             return None
         self.placed_formed = bool(np.all(ok[:, m:]))
         if self.feed_lines and not self.placed_formed:  # the feed lines' part as _placed works it: checked too
-            again = self._placed([variants[i] for i in fit + check])
-            if not np.all(np.abs(again - placed_t) <= self.CHECK_RTOL * np.max(np.abs(placed_t), axis=0) + 1e-300):
-                self.model = None
-                return None
+            five = [variants[i] for i in fit + check]
+            self.amplitudes = self._amplitude_form(five, self._worked_ants, resp[:, probe], placed_t)
+            if self.amplitudes is None:
+                again = self._placed(five)
+                if not self._close(again, placed_t):
+                    self.model = None
+                    return None
         values = np.empty((n, m))
         n_tgt = len(self.sc.targets)
         for j, i in enumerate(fit + check):
@@ -310,24 +337,88 @@ class TerminationScore:
 
     def _predict(self, variants) -> np.ndarray:
         """(variants, targets + cells): gains toward the targets and total temperatures from the form (the placed
-        sources' part worked in full where it is not of the form)."""
+        sources' part worked in full where it is not of the form, with a feed line from the own amplitudes' form
+        where that holds)."""
         n_tgt, cells = len(self.sc.targets), self.ref.temps.total[0].size
-        both = np.array([self._formed(v) for v in variants])
+        probes = np.array([self._probe_response(v) for v in variants])
+        both = np.array([self._formed(v, e) for v, e in zip(variants, probes)])
         out = both[:, : n_tgt + cells]
         if self.placed_formed:
             out[:, n_tgt:] += both[:, n_tgt + cells :]
+        elif self.amplitudes is not None:
+            out[:, n_tgt:] += self._placed(variants, own=self._own_amplitudes(variants, probes))
         else:
             out[:, n_tgt:] += self._placed(variants)
         return out
 
-    def _formed(self, variant) -> np.ndarray:
+    def _probe_response(self, variant) -> complex:
+        """A variant's (vertical) complex response toward the probe direction (what the form is normalised on)."""
+        _, _, _, az, el, probe = self.model
+        ev, _ = variant.complex_response(self.sc.freq_hz, az[probe : probe + 1], el[probe : probe + 1])
+        return complex(np.ravel(ev)[0])
+
+    def _formed(self, variant, probe_response: complex | None = None) -> np.ndarray:
         """A variant's gains toward the targets and its temperature from the sky but the placed sources (the form)."""
         r_mid, coeffs, delta, az, el, probe = self.model
         r = _resistor(variant)
-        ev, eh = variant.complex_response(self.sc.freq_hz, az[probe : probe + 1], el[probe : probe + 1])
+        ev = self._probe_response(variant) if probe_response is None else probe_response
         x = r / r_mid
-        scale = abs(np.ravel(ev)[0]) ** 2 / abs(1 + r * delta) ** 2
+        scale = abs(ev) ** 2 / abs(1 + r * delta) ** 2
         return scale * (coeffs[0] * x * x + coeffs[1] * x + coeffs[2])
+
+    def _close(self, worked: np.ndarray, held: np.ndarray) -> bool:
+        """Whether ``worked`` placed sources' parts (variants, cells) are the products' ``held`` ones to CHECK_RTOL."""
+        return bool(np.all(np.abs(worked - held) <= self.CHECK_RTOL * np.max(np.abs(held), axis=0) + 1e-300))
+
+    AMPLITUDE_RTOL = 1e-9
+    """How closely the five worked resistors' own amplitudes must follow their fitted form (relative to the
+    largest of each source's dipole): the form is exact for a wire, so only rounding is left."""
+
+    def _amplitude_form(self, five, worked, probe3, placed_t) -> dict | None:
+        """(source name, kind) -> (A, B) (each (2,): vertical, horizontal) of the own amplitudes' form
+        a(R) = e_p(R) (A + x B) / (1 + R delta), x = R / R_mid, fitted on the first three of ``five`` (the resistors
+        the quadratic went through; ``probe3`` their probe responses) from the amplitudes the products worked for
+        ``worked`` (the same antennas as they took them: kept by snrgain.model.placed), checked on all five, and
+        the placed sources' part worked from it checked against the products' ``placed_t``; None where either
+        does not hold (the part is then worked in full for every resistor)."""
+        from snrgain.model import placed
+
+        if self.reference_powers is None or len(worked) != len(five):
+            return None
+        r_mid, _, delta, _, _, _ = self.model
+        f, ground = self.sc.freq_hz, self.sc.site.ground
+        ref_m = self.ref.antennas[0].params.position or (0.0, 0.0)
+        rs = np.array([_resistor(v) for v in five])
+        probes = np.concatenate([probe3, [self._probe_response(v) for v in five[3:]]])
+        x = rs / r_mid
+        design = np.stack([np.ones(3), x[:3]], axis=1)
+        norm = (1 + rs * delta) / probes  # a (1 + R delta) / e_p = A + x B
+        out = {}
+        for src in (s for s in self.sc.noise.local if s.position_m is not None):
+            for kind, _ in placed.dipoles(src):
+                a = np.array([placed.received_amplitudes(w, src, f, ref_m, ground, kind=kind) for w in worked])
+                y = a * norm[:, None]  # (5, 2)
+                if not np.all(np.isfinite(y)):
+                    return None
+                coef = np.linalg.lstsq(design, y[:3], rcond=None)[0]  # (2, 2): A, B
+                fitted = (coef[0][None, :] + x[:, None] * coef[1][None, :]) / norm[:, None]
+                if np.any(np.abs(fitted - a) > self.AMPLITUDE_RTOL * np.max(np.abs(a)) + 1e-300):
+                    return None
+                out[src.name, kind] = (coef[0], coef[1])
+        self.amplitudes = out
+        if not self._close(self._placed(five, own=self._own_amplitudes(five, probes)), placed_t):
+            self.amplitudes = None
+            return None
+        return out
+
+    def _own_amplitudes(self, variants, probes) -> dict:
+        """(source name, kind) -> (variants, 2) complex: the variants' own amplitudes from the form (``probes``:
+        their probe responses)."""
+        r_mid, _, delta, _, _, _ = self.model
+        rs = np.array([_resistor(v) for v in variants])
+        x = rs / r_mid
+        scale = np.asarray(probes, dtype=complex) / (1 + rs * delta)
+        return {key: scale[:, None] * (a[None, :] + x[:, None] * b[None, :]) for key, (a, b) in self.amplitudes.items()}
 
 
 def _resistor(ant) -> float:

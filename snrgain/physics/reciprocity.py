@@ -103,8 +103,23 @@ def _graded(length_m, far, closest_m, at_m, most) -> np.ndarray:
 
 def pairs_rule(x) -> np.ndarray:
     """Weights of Simpson's rule on panels of two equal steps each (:func:`graded_samples`; an even grid of an even
-    number of steps is one such), else snrgain.physics.quadrature.samples_rule's."""
-    x = np.asarray(x, dtype=float)
+    number of steps is one such), else snrgain.physics.quadrature.samples_rule's.  Kept by the samples (a feed
+    line's run takes the same samples from a source at every ground): a read-only array."""
+    x = np.ascontiguousarray(x, dtype=float)
+    return _RULES.get(x.tobytes(), lambda: _pairs_rule(x))
+
+
+_RULES = Memo(256)
+""":func:`pairs_rule`'s weights by the samples' bytes."""
+
+
+def _pairs_rule(x: np.ndarray) -> np.ndarray:
+    w = _pairs_weights(x)
+    w.flags.writeable = False
+    return w
+
+
+def _pairs_weights(x: np.ndarray) -> np.ndarray:
     n = len(x)
     if n >= 3 and n % 2 == 1:
         d = np.diff(x)

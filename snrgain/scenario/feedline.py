@@ -90,9 +90,10 @@ def resolve_feed_lines(
 ) -> tuple[dict, list]:
     """name -> snrgain.physics.feedline.FeedLine for each antenna whose table gave a feed line (``sections``: where
     -> FeedLineSection), ending at the station ground ([site] station_ground), and the problems: an antenna that
-    takes no feed line (snrgain.model.feedline.antenna_end), one without a position, a run shorter than 1 m, a run
-    that leaves the lot (``site.lot_m``, a resolved Site)."""
-    from snrgain.model.feedline import antenna_end, feed_point
+    takes no feed line (snrgain.model.feedline.end_kind: what its end is, not worked out here), one without a
+    position, a run shorter than 1 m, a run that leaves the lot (``site.lot_m``, a resolved Site).  ``freq_hz``: the
+    band's (the ends themselves are worked out at it later)."""
+    from snrgain.model.feedline import end_kind, feed_point
 
     out, problems = {}, []
     for ant, where in zip(antennas, wheres):
@@ -106,7 +107,7 @@ def resolve_feed_lines(
             problems.append((f"{where}.position", str(exc).removeprefix("position: ")))
             continue
         try:
-            antenna_end(ant, freq_hz, site.ground)
+            end_kind(ant)
             fl = sec.resolved(start, station_ground_ohm)
         except ValueError as exc:
             problems.append((field, str(exc)))
