@@ -568,15 +568,7 @@ def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[compl
     for part, pos, weight in items:
         twin = _perfect_twin(part)
         points = equivalent_points(part, pos)
-        z = _centre_height(part)
-        span = getattr(part.params, "loop_height", None)
-        if span is None or len(points) == 1:
-            ez = field_at(tx, freq_hz, points, np.full(len(points), z))
-        else:
-            lo, hi = float(part.params.height), float(part.params.height) + float(span)
-            zq = lo + (hi - lo) * (0.5 + 0.5 * gauss_legendre(4)[0])
-            ez = np.mean([field_at(tx, freq_hz, points, np.full(len(points), zz)) for zz in zq], axis=0)
-            ez = ez + loop_correction(part, tx, freq_hz, points, lo, hi)
+        ez = _field_on(part, tx, freq_hz, points)
         if len(points) == 1:
             d = np.asarray(tx.position_m, dtype=float) - pos
             bearing = np.array([np.mod(np.arctan2(d[0], d[1]), 2 * np.pi)])
@@ -585,6 +577,45 @@ def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[compl
         else:
             total += weight * complex(np.sum(grazing_weights(twin, freq_hz, points, pos) * ez)) / 2
     return total, ref
+
+
+def _field_on(part, tx: TxVertical, freq_hz: float, points) -> np.ndarray:
+    """E_z [V/m] per unit base current a compact part takes at its equivalent points (:func:`coupling_terms`): at
+    its centre height, or for a loop averaged over its height plus what its horizontal wires add
+    (:func:`loop_correction`).  Kept by the vertical and the part's points and heights alone (read-only): the same
+    field for every resistor tried and every ground of the spread."""
+    points = np.ascontiguousarray(points, dtype=float)
+    z = _centre_height(part)
+    span = getattr(part.params, "loop_height", None)
+    loop = (
+        None
+        if span is None or len(points) == 1
+        else (float(part.params.height), float(part.params.height) + float(span))
+    )
+
+    def make():
+        if loop is None:
+            ez = field_at(tx, freq_hz, points, np.full(len(points), z))
+        else:
+            lo, hi = loop
+            zq = lo + (hi - lo) * (0.5 + 0.5 * gauss_legendre(4)[0])
+            ez = np.mean([field_at(tx, freq_hz, points, np.full(len(points), zz)) for zz in zq], axis=0)
+            ez = ez + loop_correction(part, tx, freq_hz, points, lo, hi)
+        ez.flags.writeable = False
+        return ez
+
+    key = (
+        "field on",
+        _params_json(tx.vertical.params),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        points.shape,
+        points.tobytes(),
+        float(z),
+        loop,
+    )
+    return _TABLES.get(key, make)
 
 
 def with_vertical(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):
