@@ -97,3 +97,15 @@ def test_sorted_runs_by_groups_equal_each_set_sorted_whole(seed):
                 assert run.shape == want.shape and np.array_equal(run, want)
                 if seed % 2 == 0:  # no zeros but the reference's: to the bit
                     assert run.tobytes() == want.tobytes()
+
+
+@pytest.mark.parametrize("hours", [True, False])
+def test_over_hours_rows_equal_row_by_row(hours):
+    rng = np.random.default_rng(3)
+    values = rng.normal(0.0, 4.0, (6, 3, 4, 7))
+    values[2, 1, 0, 0] = -np.inf  # a gain of nothing
+    masks = rng.random((3, 4, 7)) < 0.5
+    masks[0] = True
+    got = spread.over_hours_rows(values, masks, hours)
+    want = np.array([[spread.over_hours(v[t][masks[t]], hours) for t in range(3)] for v in values])
+    assert got.tobytes() == want.tobytes()

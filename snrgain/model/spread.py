@@ -375,6 +375,19 @@ def over_hours(values_db, hours: bool) -> float:
     return float(np.median(v) if hours else np.mean(v))
 
 
+def over_hours_rows(values_db, masks, hours: bool) -> np.ndarray:
+    """:func:`over_hours` of every row and target at once: ``values_db`` (rows, targets, months, hours), ``masks``
+    (targets, months, hours) the cells each target is listened at; (rows, targets) [dB].  Each target's cells are
+    taken for every row in one array and their medians found along them at once: the same values as row by row
+    (a mean is summed row by row: along an axis numpy sums in another order)."""
+    v = np.asarray(values_db, dtype=float)
+    out = np.empty(v.shape[:2])
+    for t, mask in enumerate(masks):
+        cells = v[:, t][:, mask]  # (rows, cells listened)
+        out[:, t] = np.median(cells, axis=1) if hours else [np.mean(row) for row in cells]
+    return out
+
+
 PROBES = 64
 """Values tried at once in each narrowing step of :func:`run_quantiles`."""
 WINDOW = 4096
