@@ -165,3 +165,24 @@ def test_a_damaged_month_file_still_raises(cache_dir, tmp_path):
             p372_maps.check_month(1, folder)
     with pytest.raises(p372_maps.P372DataError):
         p372_maps.check_month(2, folder)  # missing
+
+
+def test_entries_read_without_numpys_reader_equal_np_load(cache_dir):
+    # skycache reads the header np.save writes itself (numpy's reader evaluates it as Python); any other layout goes
+    # to np.load: the same arrays, writeable, dtype and shape included.
+    import io
+
+    for arr in (np.zeros(()), np.arange(5.0), np.ones((3, 6)), np.array([1 + 2j, 3j]), np.zeros((2, 0, 3))):
+        buf = io.BytesIO()
+        np.save(buf, arr)
+        got = skycache._parse(bytearray(buf.getvalue()))
+        assert got.dtype == arr.dtype and got.shape == arr.shape and got.tobytes() == arr.tobytes()
+        assert got.flags.writeable
+    buf = io.BytesIO()
+    np.save(buf, np.asfortranarray(np.ones((2, 3))))
+    assert skycache._parse(bytearray(buf.getvalue())) is None  # read by np.load
+    skycache.store("test", {"f": 1}, np.asfortranarray(np.arange(6.0).reshape(2, 3)))
+    np.testing.assert_array_equal(skycache.load("test", {"f": 1}), np.arange(6.0).reshape(2, 3))
+    buf = io.BytesIO()
+    np.save(buf, np.arange(4.0))
+    assert skycache._parse(bytearray(buf.getvalue())[:-8]) is None  # short: not taken
