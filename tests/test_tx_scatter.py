@@ -609,3 +609,18 @@ def test_the_field_a_compact_part_takes_is_kept_and_equals_a_fresh_one():
     want = want + scatter.loop_correction(flag, t, F_HZ, pts, lo, hi)
     assert z == pytest.approx(0.5 * (lo + hi))
     np.testing.assert_array_equal(scatter._field_on(flag, t, F_HZ, pts), want)
+
+
+def test_grazing_weights_kept_by_the_perfect_twin():
+    # scatter._grazing_on: the twins of one antenna at several grounds are one perfect-ground twin, worked once and
+    # equal to grazing_weights.
+    from snrgain.antennas.base import variant
+
+    flag = _antennas("lossy")[0]["flag"]
+    pos = np.array([3.0, -2.0])
+    pts = scatter.equivalent_points(flag, pos)
+    scatter._TABLES.clear()
+    twins = [scatter._perfect_twin(variant(flag, ground=g)) for g in ("moist loam", "sandy soil")]
+    first = scatter._grazing_on(twins[0], F_HZ, pts, pos)
+    assert first.tobytes() == scatter.grazing_weights(twins[0], F_HZ, pts, pos).tobytes()
+    assert scatter._grazing_on(twins[1], F_HZ, pts, pos) is first and not first.flags.writeable

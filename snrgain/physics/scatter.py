@@ -254,6 +254,25 @@ def grazing_weights(twin, freq_hz: float, points, pos) -> np.ndarray:
     return coef
 
 
+def _grazing_on(twin, freq_hz: float, points, pos) -> np.ndarray:
+    """:func:`grazing_weights`, kept in the tables' memo by what they depend on (read-only): the twin's gains key
+    (its family and parameters; the twins of one antenna at every ground of the spread are one perfect-ground
+    twin), its place, the points and ``pos``; worked each time for an antenna without such a key."""
+    key = twin.gain_key()
+    points, pos = np.ascontiguousarray(points, dtype=float), np.ascontiguousarray(pos, dtype=float)
+    if key is None:
+        return grazing_weights(twin, freq_hz, points, pos)
+
+    def make():
+        out = grazing_weights(twin, freq_hz, points, pos)
+        out.flags.writeable = False
+        return out
+
+    place = twin.params.position
+    full = ("grazing", key, None if place is None else tuple(map(float, place)), float(freq_hz))
+    return _TABLES.get((*full, points.shape, points.tobytes(), pos.tobytes()), make)
+
+
 SEGMENT_POINTS = 16
 """Gauss-Legendre points up the vertical for its field as a column of short dipoles (:func:`field_vector_at`):
 within 5e-4 of 32 points from 3 m out (measured)."""
@@ -575,7 +594,7 @@ def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[compl
             ev, _ = twin.complex_response(freq_hz, bearing, np.array([GRAZING_RAD]))
             total += weight * complex(ev[0]) * ez[0] / 2
         else:
-            total += weight * complex(np.sum(grazing_weights(twin, freq_hz, points, pos) * ez)) / 2
+            total += weight * complex(np.sum(_grazing_on(twin, freq_hz, points, pos) * ez)) / 2
     return total, ref
 
 
