@@ -624,3 +624,28 @@ def test_grazing_weights_kept_by_the_perfect_twin():
     first = scatter._grazing_on(twins[0], F_HZ, pts, pos)
     assert first.tobytes() == scatter.grazing_weights(twins[0], F_HZ, pts, pos).tobytes()
     assert scatter._grazing_on(twins[1], F_HZ, pts, pos) is first and not first.flags.writeable
+
+
+def test_a_wires_emfs_from_the_vertical_are_worked_once_for_every_resistor(monkeypatch):
+    # wire_couplings keeps the EMFs along the wire and up its leads by what wire_emfs reads of the wire (length,
+    # height, leads) and the vertical: another resistor takes them again; the couplings equal those worked afresh.
+    from snrgain.antennas.base import variant
+    from snrgain.physics import reciprocity
+
+    bev = _beverage()
+    t = TxVertical(_antennas("lossy")[1], (50.0, 20.0), 50.0, REF["tx"]["radius_m"])
+    feeds = np.array([[0.0, 0.0], [5.0, -3.0]])
+    wires = [variant(bev, termination=r) for r in (300.0, 500.0, 700.0)]
+    fresh = []
+    for w in wires:
+        scatter._TABLES.clear()
+        scatter._ALONG.clear()
+        fresh.append(scatter.wire_couplings(w, t, F_HZ, feeds))
+    scatter._TABLES.clear()
+    scatter._ALONG.clear()
+    calls = []
+    real = reciprocity.wire_emfs
+    monkeypatch.setattr(reciprocity, "wire_emfs", lambda *a, **k: calls.append(1) or real(*a, **k))
+    for w, want in zip(wires, fresh):
+        assert scatter.wire_couplings(w, t, F_HZ, feeds).tobytes() == want.tobytes()
+    assert len(calls) == 1

@@ -454,8 +454,9 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
 
 
 _ALONG = Memo(64)
-"""The vertical's field along a wire as last asked (:func:`_field_along`): the same points for every resistor a
-termination search tries and every ground variant of the spreads (the wire does not move)."""
+"""The vertical's field along a wire as last asked (:func:`_field_along`) and the EMFs it drives along the wire and
+up its leads (:func:`wire_couplings`): the same points for every resistor a termination search tries and every
+ground variant of the spreads (the wire does not move)."""
 ALONG_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
@@ -566,7 +567,29 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     def along(pts, height):  # along the wire: the radial field's part along it alone
         return _field_along_wire(tx, freq_hz, pts, height, u)
 
-    emf, lead = wire_emfs(wire, feeds, x, u, field, along)
+    def emfs():
+        emf, lead = wire_emfs(wire, feeds, x, u, field, along)
+        for v in (emf, lead):
+            if v is not None:
+                v.flags.writeable = False
+        return emf, lead
+
+    # what wire_emfs reads of the wire: its length, height and leads (every resistor tried takes the same EMFs)
+    key = (
+        "wire emfs",
+        _params_json(tx.vertical.params),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        float(wire.length_m),
+        float(wire.wire_height_m()),
+        bool(wire.has_leads),
+        feeds.shape,
+        feeds.tobytes(),
+        x.tobytes(),
+        u.tobytes(),
+    )
+    emf, lead = _ALONG.get(key, emfs) if len(feeds) * len(x) <= ALONG_MEMO_POINTS else emfs()
     i_f = through_line(wire, freq_hz, x, emf, lead)
     load = wire.receiver_load_ohm(freq_hz)
     return port_response(freq_hz, i_f, load_ohm=load, elevation_rad=np.full(len(feeds), 0.1)).astype(complex)
