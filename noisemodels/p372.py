@@ -15,6 +15,7 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -295,8 +296,59 @@ def atmospheric_blocks(latitude_deg, longitude_deg, *, month: int, freq_hz, data
     from noisemodels import p372_maps as maps
 
     lat, lon, f_mhz = _atmospheric_inputs(latitude_deg, longitude_deg, freq_hz)
-    coeffs = maps.load_month(month, data_dir)
     lat_r, lon_r, f_b = np.broadcast_arrays(np.radians(lat), np.radians(lon), f_mhz)
+    if lat_r.ndim == 0:  # one place (a site's own level): kept in this process and in the persistent cache
+        source = _month_source(month, data_dir)
+        if source is not None:
+            kept = _one_place(float(lat_r), float(lon_r), float(f_b), int(month), *source, data_dir)
+            return BlockLevels(*(np.array(v) for v in kept), np.degrees(lon_r))
+    coeffs = maps.load_month(month, data_dir)
     blocks = np.arange(6).reshape((6,) + (1,) * lat_r.ndim)
     fa, du, dl = maps.block_values(coeffs, lat_r[None], lon_r[None], f_b[None], blocks)
     return BlockLevels(fa, du, dl, np.degrees(lon_r))
+
+
+BLOCKS_VERSION = 1
+"""Part of the persistent cache's key of one place's block levels (:func:`atmospheric_blocks`); bump it when what they
+hold changes in a way the key's code digest (this module's and p372_maps' sources) would not show."""
+
+
+def _month_source(month, data_dir) -> tuple[str, int, int] | None:
+    """(path, size, modification time [ns]) of a month's coefficient file; None when it cannot be found (the
+    computation then raises its clear error)."""
+    from noisemodels import p372_maps as maps
+
+    try:
+        path = maps.month_file(maps.resolve_data_dir(data_dir), month).resolve()
+        st = path.stat()
+    except (OSError, ValueError, maps.P372DataError):
+        return None
+    return str(path), int(st.st_size), int(st.st_mtime_ns)
+
+
+@lru_cache(maxsize=256)
+def _one_place(lat_rad: float, lon_rad: float, f_mhz: float, month: int, path: str, size: int, mtime_ns: int, data_dir):
+    """(FaA, D_u, D_l) [dB] of the six blocks (3, 6) at one place, from the persistent cache (kind "p372blocks",
+    keyed by the place, the frequency, the coefficient file and the code) or worked as for many places: a later run
+    reads them back, to the bit, without reading the coefficient file."""
+    from noisemodels import p372_maps as maps
+    from noisemodels import skycache
+
+    def compute():
+        coeffs = maps.load_month(month, data_dir)
+        lat_r, lon_r, f_b = (np.asarray(v, dtype=float) for v in (lat_rad, lon_rad, f_mhz))
+        return np.stack(maps.block_values(coeffs, lat_r[None], lon_r[None], f_b[None], np.arange(6)))
+
+    key = {
+        "version": BLOCKS_VERSION,
+        "code": skycache.code_digest(__file__, maps.__file__),
+        "place_rad": [lat_rad, lon_rad],
+        "freq_mhz": f_mhz,
+        "month": month,
+        "p372": [path, size, mtime_ns],
+    }
+    kept = skycache.remembered("p372blocks", key, compute)
+    if kept.dtype != float or kept.shape != (3, 6):  # not what this code writes: worked afresh
+        kept = compute()
+    kept.flags.writeable = False
+    return kept

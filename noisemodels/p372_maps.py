@@ -193,6 +193,36 @@ def load_month(month: int, data_dir: str | Path | None = None) -> AtmosphericCoe
     return _cached(str(path), int(month), mtime)
 
 
+CHECKED_VERSION = 1
+"""Part of the persistent cache's key of :func:`check_month`'s record of a file read cleanly."""
+
+
+def check_month(month: int, data_dir: str | Path | None = None) -> None:
+    """Raise as :func:`load_month` does when a month's file is missing or does not read; a file an earlier run has
+    read cleanly (the same path, size and modification time, and this module's code) is not read again: that it
+    did is kept in the persistent cache (:func:`noisemodels.skycache.remembered`, kind "p372file")."""
+    from noisemodels import skycache
+
+    path = month_file(resolve_data_dir(data_dir), month)
+    try:
+        st = path.resolve().stat()
+    except OSError:
+        load_month(month, data_dir)  # raises naming the file
+        return
+
+    def read():
+        load_month(month, data_dir)  # raises naming the file and the section or line at fault
+        return np.ones(1)
+
+    key = {
+        "version": CHECKED_VERSION,
+        "code": skycache.code_digest(__file__),
+        "month": int(month),
+        "p372": [str(path.resolve()), int(st.st_size), int(st.st_mtime_ns)],
+    }
+    skycache.remembered("p372file", key, read)
+
+
 def _horner(coeffs, u):
     """Evaluate polynomials, highest power first; coeffs (..., n) broadcast with u."""
     out = np.zeros(np.broadcast_shapes(np.shape(u), np.shape(coeffs)[:-1]))

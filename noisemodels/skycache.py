@@ -24,6 +24,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import re
 import tempfile
 from pathlib import Path
 
@@ -72,10 +73,41 @@ def load(kind: str, key: dict) -> np.ndarray | None:
     return _read(folder() / key_name(kind, key))
 
 
+_HEADER = re.compile(
+    r"\{'descr': '([<>|=][a-zA-Z][0-9]*)', 'fortran_order': False, 'shape': \(((?:\d+, )*\d*,?)\), \}\s*"
+)
+"""The header np.save writes for a C-ordered array of a plain dtype (format 1.0)."""
+
+
+def _parse(data: bytearray) -> np.ndarray | None:
+    """The array of a .npy file's bytes as np.save writes them (format 1.0, a plain dtype, C order), without
+    numpy's reader (which evaluates the header as Python: most of the cost of reading a small entry); None for any
+    other layout (then read by np.load)."""
+    if data[:8] != b"\x93NUMPY\x01\x00" or len(data) < 10:
+        return None
+    start = 10 + int.from_bytes(data[8:10], "little")
+    m = _HEADER.fullmatch(data[10:start].decode("latin-1"))
+    if m is None:
+        return None
+    try:
+        dtype = np.dtype(m.group(1))
+    except TypeError:
+        return None
+    shape = tuple(int(x) for x in m.group(2).replace(",", " ").split())
+    if dtype.hasobject or len(data) - start != dtype.itemsize * int(np.prod(shape)):
+        return None
+    return np.frombuffer(data, dtype=dtype, offset=start).reshape(shape)  # writeable: over a bytearray
+
+
 def _read(path: Path) -> np.ndarray | None:
     try:
         with open(path, "rb") as fh:
-            arr = np.load(fh, allow_pickle=False)
+            data = bytearray(os.fstat(fh.fileno()).st_size)
+            got = fh.readinto(data)
+            arr = _parse(data) if got == len(data) else None
+            if arr is None:
+                fh.seek(0)
+                arr = np.load(fh, allow_pickle=False)
     except FileNotFoundError:
         return None
     except (OSError, ValueError, EOFError):  # damaged or half-removed: recompute, and drop it

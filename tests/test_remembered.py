@@ -124,3 +124,65 @@ def test_thin_wire_current_read_back_equals_the_solution(cache_dir, monkeypatch)
     z1, i1 = vertical.thin_wire_current(*args)
     assert z1.tobytes() == z0.tobytes() and i1.tobytes() == i0.tobytes()
     vertical._CURRENTS.clear()
+
+
+def test_one_place_blocks_read_back_without_the_coefficient_file(cache_dir, monkeypatch):
+    from noisemodels import p372, p372_maps
+    from tests.conftest import HAVE_P372, P372_DIR
+
+    if not HAVE_P372:
+        pytest.skip("no P.372 data")
+    args = dict(month=12, freq_hz=1.83e6, data_dir=P372_DIR)
+    lat, lon = np.radians(43.15), np.radians(-89.6)
+    coeffs = p372_maps.load_month(12, P372_DIR)
+    want = p372_maps.block_values(coeffs, np.array([lat]), np.array([lon]), np.array([1.83]), np.arange(6))
+    p372._one_place.cache_clear()
+    first = p372.atmospheric_blocks(43.15, -89.6, **args)
+    p372_maps.check_month(12, P372_DIR)
+    for got, w in zip((first.fa_db, first.du_db, first.dl_db), want):
+        assert got.tobytes() == w.tobytes()
+    p372._one_place.cache_clear()
+    p372_maps._cached.cache_clear()
+
+    def no_read(*a):
+        raise AssertionError("read again")
+
+    monkeypatch.setattr(p372_maps, "read_coefficients", no_read)
+    again = p372.atmospheric_blocks(43.15, -89.6, **args)
+    assert again.fa_db.tobytes() == first.fa_db.tobytes() and again.dl_db.tobytes() == first.dl_db.tobytes()
+    p372_maps.check_month(12, P372_DIR)  # read cleanly by an earlier check: not read again
+    p372._one_place.cache_clear()
+
+
+def test_a_damaged_month_file_still_raises(cache_dir, tmp_path):
+    from noisemodels import p372_maps
+
+    folder = tmp_path / "p372"
+    folder.mkdir()
+    (folder / "COEFF01W.txt").write_text("FAKP(29,16,6)\n1.0 x 2.0\n")
+    for _ in range(2):  # a file that does not read is never recorded as read
+        with pytest.raises(p372_maps.P372DataError):
+            p372_maps.check_month(1, folder)
+    with pytest.raises(p372_maps.P372DataError):
+        p372_maps.check_month(2, folder)  # missing
+
+
+def test_entries_read_without_numpys_reader_equal_np_load(cache_dir):
+    # skycache reads the header np.save writes itself (numpy's reader evaluates it as Python); any other layout goes
+    # to np.load: the same arrays, writeable, dtype and shape included.
+    import io
+
+    for arr in (np.zeros(()), np.arange(5.0), np.ones((3, 6)), np.array([1 + 2j, 3j]), np.zeros((2, 0, 3))):
+        buf = io.BytesIO()
+        np.save(buf, arr)
+        got = skycache._parse(bytearray(buf.getvalue()))
+        assert got.dtype == arr.dtype and got.shape == arr.shape and got.tobytes() == arr.tobytes()
+        assert got.flags.writeable
+    buf = io.BytesIO()
+    np.save(buf, np.asfortranarray(np.ones((2, 3))))
+    assert skycache._parse(bytearray(buf.getvalue())) is None  # read by np.load
+    skycache.store("test", {"f": 1}, np.asfortranarray(np.arange(6.0).reshape(2, 3)))
+    np.testing.assert_array_equal(skycache.load("test", {"f": 1}), np.arange(6.0).reshape(2, 3))
+    buf = io.BytesIO()
+    np.save(buf, np.arange(4.0))
+    assert skycache._parse(bytearray(buf.getvalue())[:-8]) is None  # short: not taken

@@ -73,3 +73,39 @@ def test_one_sample_and_empty_runs():
     assert run_quantiles([np.array([5.0]), np.array([])], [1.0, 2.0], (0.1, 0.9), 6.0) == (5.0, 5.0, 0.0)
     with pytest.raises(ValueError):
         run_quantiles([np.array([])], [1.0], (0.5,), 0.0)
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_sorted_runs_by_groups_equal_each_set_sorted_whole(seed):
+    # Cells grouped by the sets of listened cells holding them, each group sorted once and a set's run merged from
+    # its groups': the same values in the same order as each set's samples sorted whole (ties included; a sort puts
+    # -0.0 and 0.0, which compare equal, in either order).
+    rng = np.random.default_rng(seed)
+    noises = [np.round(rng.normal(0.0, 2.0, (50, 3, 7)), 0 if seed % 2 else 6) for _ in range(4)]
+    noises.append(np.zeros((50, 3, 7)))  # the reference over itself
+    full = np.ones((3, 7), dtype=bool)
+    masks = [full, rng.random((3, 7)) < 0.5, full, rng.random((3, 7)) < 0.3]
+    if seed >= 3:  # sets of many groups: sorted whole
+        masks += [rng.random((3, 7)) < 0.6 for _ in range(4)]
+    for hours in (True, False):
+        sets = masks + [np.zeros((3, 7), dtype=bool)] if hours else masks  # (no mean over no cells)
+        got = spread.sorted_runs(noises, sets, hours)
+        for mask in sets:
+            for noise, run in zip(noises, got[mask.tobytes()]):
+                v = -noise[:, mask] if hours else -noise[:, mask].mean(axis=1, keepdims=True)
+                want = np.sort(v.ravel())
+                assert run.shape == want.shape and np.array_equal(run, want)
+                if seed % 2 == 0:  # no zeros but the reference's: to the bit
+                    assert run.tobytes() == want.tobytes()
+
+
+@pytest.mark.parametrize("hours", [True, False])
+def test_over_hours_rows_equal_row_by_row(hours):
+    rng = np.random.default_rng(3)
+    values = rng.normal(0.0, 4.0, (6, 3, 4, 7))
+    values[2, 1, 0, 0] = -np.inf  # a gain of nothing
+    masks = rng.random((3, 4, 7)) < 0.5
+    masks[0] = True
+    got = spread.over_hours_rows(values, masks, hours)
+    want = np.array([[spread.over_hours(v[t][masks[t]], hours) for t in range(3)] for v in values])
+    assert got.tobytes() == want.tobytes()

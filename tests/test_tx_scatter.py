@@ -583,3 +583,69 @@ def test_the_costs_of_many_places_at_once_equal_one_by_one():
             one = [tx_cost(sc, a, tx=tx) for a in ants]
             many = tx_costs_db(sc, ants, tx, wire_terms(sc, ants, tx))
             np.testing.assert_allclose(many, [c["cost_db"] for c in one], atol=1e-9)
+
+
+def test_the_field_a_compact_part_takes_is_kept_and_equals_a_fresh_one():
+    from snrgain.antennas.base import variant
+
+    # scatter._field_on keeps the field at a part's points by the vertical and the part's geometry alone: another
+    # resistor or another ground asks again and gets the same array; the values are those worked afresh.
+    ants, txa = _antennas("lossy")
+    t = TxVertical(txa, (15.0, 5.0), 50.0, REF["tx"]["radius_m"])
+    flag = ants["flag"]
+    other = variant(flag, termination=400.0, ground="perfect")
+    for part in (flag, ants["pair"].elements[0]):
+        pts = scatter.equivalent_points(part, np.array([0.0, 0.0]))
+        got = scatter._field_on(part, t, F_HZ, pts)
+        scatter._TABLES.clear()
+        fresh = scatter._field_on(part, t, F_HZ, pts)
+        assert got.tobytes() == fresh.tobytes() and not fresh.flags.writeable
+        assert scatter._field_on(other if part is flag else part, t, F_HZ, pts) is fresh
+    z = scatter._centre_height(flag)
+    pts = scatter.equivalent_points(flag, np.array([0.0, 0.0]))
+    lo, hi = float(flag.params.height), float(flag.params.height) + float(flag.params.loop_height)
+    zq = lo + (hi - lo) * (0.5 + 0.5 * scatter.gauss_legendre(4)[0])
+    want = np.mean([scatter.field_at(t, F_HZ, pts, np.full(len(pts), zz)) for zz in zq], axis=0)
+    want = want + scatter.loop_correction(flag, t, F_HZ, pts, lo, hi)
+    assert z == pytest.approx(0.5 * (lo + hi))
+    np.testing.assert_array_equal(scatter._field_on(flag, t, F_HZ, pts), want)
+
+
+def test_grazing_weights_kept_by_the_perfect_twin():
+    # scatter._grazing_on: the twins of one antenna at several grounds are one perfect-ground twin, worked once and
+    # equal to grazing_weights.
+    from snrgain.antennas.base import variant
+
+    flag = _antennas("lossy")[0]["flag"]
+    pos = np.array([3.0, -2.0])
+    pts = scatter.equivalent_points(flag, pos)
+    scatter._TABLES.clear()
+    twins = [scatter._perfect_twin(variant(flag, ground=g)) for g in ("moist loam", "sandy soil")]
+    first = scatter._grazing_on(twins[0], F_HZ, pts, pos)
+    assert first.tobytes() == scatter.grazing_weights(twins[0], F_HZ, pts, pos).tobytes()
+    assert scatter._grazing_on(twins[1], F_HZ, pts, pos) is first and not first.flags.writeable
+
+
+def test_a_wires_emfs_from_the_vertical_are_worked_once_for_every_resistor(monkeypatch):
+    # wire_couplings keeps the EMFs along the wire and up its leads by what wire_emfs reads of the wire (length,
+    # height, leads) and the vertical: another resistor takes them again; the couplings equal those worked afresh.
+    from snrgain.antennas.base import variant
+    from snrgain.physics import reciprocity
+
+    bev = _beverage()
+    t = TxVertical(_antennas("lossy")[1], (50.0, 20.0), 50.0, REF["tx"]["radius_m"])
+    feeds = np.array([[0.0, 0.0], [5.0, -3.0]])
+    wires = [variant(bev, termination=r) for r in (300.0, 500.0, 700.0)]
+    fresh = []
+    for w in wires:
+        scatter._TABLES.clear()
+        scatter._ALONG.clear()
+        fresh.append(scatter.wire_couplings(w, t, F_HZ, feeds))
+    scatter._TABLES.clear()
+    scatter._ALONG.clear()
+    calls = []
+    real = reciprocity.wire_emfs
+    monkeypatch.setattr(reciprocity, "wire_emfs", lambda *a, **k: calls.append(1) or real(*a, **k))
+    for w, want in zip(wires, fresh):
+        assert scatter.wire_couplings(w, t, F_HZ, feeds).tobytes() == want.tobytes()
+    assert len(calls) == 1

@@ -13,7 +13,7 @@ import numpy as np
 from snrgain.decide.build import build_sheet
 from snrgain.model import feedline, placed, snr
 from snrgain.model.results import AntennaResult
-from snrgain.model.spread import SnrSpread, over_hours
+from snrgain.model.spread import SnrSpread, over_hours_rows
 from snrgain.physics import chain as chainmod
 from snrgain.physics.receiver import power_dbm
 from snrgain.scenario import Scenario
@@ -121,10 +121,9 @@ def snr_gains(sc: Scenario, p: Products) -> np.ndarray:
 
 
 def target_statistic(sc: Scenario, g: np.ndarray) -> np.ndarray:
-    """The one statistic of :func:`snr_gains` per antenna and target (snrgain.model.spread.over_hours): (antennas,
-    targets) [dB]."""
-    masks = target_masks(sc)
-    return np.array([[over_hours(gt[m], sc.uncertainty.hours) for gt, m in zip(ga, masks)] for ga in g])
+    """The one statistic of :func:`snr_gains` per antenna and target (snrgain.model.spread.over_hours, every antenna
+    at once: over_hours_rows): (antennas, targets) [dB]."""
+    return over_hours_rows(g, target_masks(sc), sc.uncertainty.hours).reshape(len(g), len(sc.targets))
 
 
 def target_masks(sc: Scenario) -> np.ndarray:

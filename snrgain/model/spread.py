@@ -196,14 +196,10 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
             ]
         per_target = [int(m.sum()) if u.hours else 1 for m in masks]
         if len(nodes) * draws * max(per_target) <= EXACT_VALUES:
-            runs: dict[bytes, list] = {}  # per distinct set of listened cells: each node's -noise, sorted once
+            # per distinct set of listened cells: each node's -noise, sorted once (sorted_runs)
+            runs = sorted_runs([noise for _, noise, _ in nodes], masks, u.hours)
             for t_idx, mask in enumerate(masks):
                 key = mask.tobytes()
-                if key not in runs:
-                    runs[key] = [
-                        np.sort((-noise[:, mask] if u.hours else -noise[:, mask].mean(axis=1, keepdims=True)).ravel())
-                        for _, noise, _ in nodes
-                    ]
                 # a node's shift keeps its run sorted: the quantiles are read from the runs (run_quantiles)
                 stats = run_quantiles(
                     [run + signal[t_idx] for run, (signal, _, _) in zip(runs[key], nodes)],
@@ -226,6 +222,52 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
             stats = (*total.quantiles((0.1, 0.5, 0.9)), total.share_at_least(u.beat_by_db))
             out["p10"][a, t_idx], out["median"][a, t_idx], out["p90"][a, t_idx], out["prob"][a, t_idx] = stats
     return SnrSpread(out["median"], out["p10"], out["p90"], out["prob"], u.beat_by_db)
+
+
+MERGE_GROUPS = 3
+"""A set of listened cells made of up to this many groups of cells (:func:`sorted_runs`) has its run merged from the
+groups' sorted runs; of more, sorted whole."""
+
+
+def sorted_runs(noises, masks, hours: bool) -> dict[bytes, list[np.ndarray]]:
+    """Each node's -noise (``noises``: arrays (draws, months, hours)) over each distinct set of listened cells
+    (``masks``, keyed by their bytes), sorted: what :func:`run_quantiles` reads, per node.  With the hours counted
+    each sample is one draw at one cell; else one draw's mean over the cells.
+
+    With the hours counted, the cells are grouped by which of the distinct sets hold them (targets listened at
+    different hours: the hours all of them share, those only some do), each group's samples sorted once per node,
+    and a set's run merged from its groups' runs (a stable sort of sorted pieces merges them, in linear time): the
+    same values in the same order as the set's samples sorted whole, for less work than sorting every set whole
+    (sorting costs more per sample the more samples there are).  A set of more than :data:`MERGE_GROUPS` groups is
+    sorted whole."""
+    distinct: dict[bytes, np.ndarray] = {}
+    for mask in masks:
+        distinct.setdefault(mask.tobytes(), mask)
+    if not hours:
+        return {
+            key: [np.sort(-noise[:, mask].mean(axis=1, keepdims=True).ravel()) for noise in noises]
+            for key, mask in distinct.items()
+        }
+    held = np.array(list(distinct.values()))  # (sets, months, hours)
+    groups: dict[bytes, np.ndarray] = {}  # cells by the sets holding them (cells in none left out)
+    for cell in zip(*np.nonzero(held.any(axis=0))):
+        groups.setdefault(held[(slice(None), *cell)].tobytes(), np.zeros(held.shape[1:], dtype=bool))[cell] = True
+    patterns = {g: np.frombuffer(g, dtype=bool) for g in groups}
+    out: dict[bytes, list] = {}
+    pieces: dict[bytes, list] = {}  # each group's sorted runs, per node
+    for k, (key, mask) in enumerate(distinct.items()):
+        parts = [g for g in groups if patterns[g][k]]
+        if not 1 <= len(parts) <= MERGE_GROUPS:
+            out[key] = [np.sort(-noise[:, mask].ravel()) for noise in noises]
+            continue
+        for g in parts:
+            if g not in pieces:
+                pieces[g] = [np.sort(-noise[:, groups[g]].ravel()) for noise in noises]
+        if len(parts) == 1:  # the set is one group: its run
+            out[key] = pieces[parts[0]]
+            continue
+        out[key] = [np.sort(np.concatenate([pieces[g][i] for g in parts]), kind="stable") for i in range(len(noises))]
+    return out
 
 
 @dataclass(frozen=True)
@@ -331,6 +373,19 @@ def over_hours(values_db, hours: bool) -> float:
     hours not counted as a spread (``[uncertainty] hours = false``) their mean in dB."""
     v = np.asarray(values_db, dtype=float)
     return float(np.median(v) if hours else np.mean(v))
+
+
+def over_hours_rows(values_db, masks, hours: bool) -> np.ndarray:
+    """:func:`over_hours` of every row and target at once: ``values_db`` (rows, targets, months, hours), ``masks``
+    (targets, months, hours) the cells each target is listened at; (rows, targets) [dB].  Each target's cells are
+    taken for every row in one array and their medians found along them at once: the same values as row by row
+    (a mean is summed row by row: along an axis numpy sums in another order)."""
+    v = np.asarray(values_db, dtype=float)
+    out = np.empty(v.shape[:2])
+    for t, mask in enumerate(masks):
+        cells = v[:, t][:, mask]  # (rows, cells listened)
+        out[:, t] = np.median(cells, axis=1) if hours else [np.mean(row) for row in cells]
+    return out
 
 
 PROBES = 64

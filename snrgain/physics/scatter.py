@@ -254,6 +254,25 @@ def grazing_weights(twin, freq_hz: float, points, pos) -> np.ndarray:
     return coef
 
 
+def _grazing_on(twin, freq_hz: float, points, pos) -> np.ndarray:
+    """:func:`grazing_weights`, kept in the tables' memo by what they depend on (read-only): the twin's gains key
+    (its family and parameters; the twins of one antenna at every ground of the spread are one perfect-ground
+    twin), its place, the points and ``pos``; worked each time for an antenna without such a key."""
+    key = twin.gain_key()
+    points, pos = np.ascontiguousarray(points, dtype=float), np.ascontiguousarray(pos, dtype=float)
+    if key is None:
+        return grazing_weights(twin, freq_hz, points, pos)
+
+    def make():
+        out = grazing_weights(twin, freq_hz, points, pos)
+        out.flags.writeable = False
+        return out
+
+    place = twin.params.position
+    full = ("grazing", key, None if place is None else tuple(map(float, place)), float(freq_hz))
+    return _TABLES.get((*full, points.shape, points.tobytes(), pos.tobytes()), make)
+
+
 SEGMENT_POINTS = 16
 """Gauss-Legendre points up the vertical for its field as a column of short dipoles (:func:`field_vector_at`):
 within 5e-4 of 32 points from 3 m out (measured)."""
@@ -435,8 +454,9 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
 
 
 _ALONG = Memo(64)
-"""The vertical's field along a wire as last asked (:func:`_field_along`): the same points for every resistor a
-termination search tries and every ground variant of the spreads (the wire does not move)."""
+"""The vertical's field along a wire as last asked (:func:`_field_along`) and the EMFs it drives along the wire and
+up its leads (:func:`wire_couplings`): the same points for every resistor a termination search tries and every
+ground variant of the spreads (the wire does not move)."""
 ALONG_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
@@ -547,7 +567,29 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     def along(pts, height):  # along the wire: the radial field's part along it alone
         return _field_along_wire(tx, freq_hz, pts, height, u)
 
-    emf, lead = wire_emfs(wire, feeds, x, u, field, along)
+    def emfs():
+        emf, lead = wire_emfs(wire, feeds, x, u, field, along)
+        for v in (emf, lead):
+            if v is not None:
+                v.flags.writeable = False
+        return emf, lead
+
+    # what wire_emfs reads of the wire: its length, height and leads (every resistor tried takes the same EMFs)
+    key = (
+        "wire emfs",
+        _params_json(tx.vertical.params),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        float(wire.length_m),
+        float(wire.wire_height_m()),
+        bool(wire.has_leads),
+        feeds.shape,
+        feeds.tobytes(),
+        x.tobytes(),
+        u.tobytes(),
+    )
+    emf, lead = _ALONG.get(key, emfs) if len(feeds) * len(x) <= ALONG_MEMO_POINTS else emfs()
     i_f = through_line(wire, freq_hz, x, emf, lead)
     load = wire.receiver_load_ohm(freq_hz)
     return port_response(freq_hz, i_f, load_ohm=load, elevation_rad=np.full(len(feeds), 0.1)).astype(complex)
@@ -568,23 +610,54 @@ def coupling_terms(antenna, tx: TxVertical, freq_hz: float, at_m) -> tuple[compl
     for part, pos, weight in items:
         twin = _perfect_twin(part)
         points = equivalent_points(part, pos)
-        z = _centre_height(part)
-        span = getattr(part.params, "loop_height", None)
-        if span is None or len(points) == 1:
-            ez = field_at(tx, freq_hz, points, np.full(len(points), z))
-        else:
-            lo, hi = float(part.params.height), float(part.params.height) + float(span)
-            zq = lo + (hi - lo) * (0.5 + 0.5 * gauss_legendre(4)[0])
-            ez = np.mean([field_at(tx, freq_hz, points, np.full(len(points), zz)) for zz in zq], axis=0)
-            ez = ez + loop_correction(part, tx, freq_hz, points, lo, hi)
+        ez = _field_on(part, tx, freq_hz, points)
         if len(points) == 1:
             d = np.asarray(tx.position_m, dtype=float) - pos
             bearing = np.array([np.mod(np.arctan2(d[0], d[1]), 2 * np.pi)])
             ev, _ = twin.complex_response(freq_hz, bearing, np.array([GRAZING_RAD]))
             total += weight * complex(ev[0]) * ez[0] / 2
         else:
-            total += weight * complex(np.sum(grazing_weights(twin, freq_hz, points, pos) * ez)) / 2
+            total += weight * complex(np.sum(_grazing_on(twin, freq_hz, points, pos) * ez)) / 2
     return total, ref
+
+
+def _field_on(part, tx: TxVertical, freq_hz: float, points) -> np.ndarray:
+    """E_z [V/m] per unit base current a compact part takes at its equivalent points (:func:`coupling_terms`): at
+    its centre height, or for a loop averaged over its height plus what its horizontal wires add
+    (:func:`loop_correction`).  Kept by the vertical and the part's points and heights alone (read-only): the same
+    field for every resistor tried and every ground of the spread."""
+    points = np.ascontiguousarray(points, dtype=float)
+    z = _centre_height(part)
+    span = getattr(part.params, "loop_height", None)
+    loop = (
+        None
+        if span is None or len(points) == 1
+        else (float(part.params.height), float(part.params.height) + float(span))
+    )
+
+    def make():
+        if loop is None:
+            ez = field_at(tx, freq_hz, points, np.full(len(points), z))
+        else:
+            lo, hi = loop
+            zq = lo + (hi - lo) * (0.5 + 0.5 * gauss_legendre(4)[0])
+            ez = np.mean([field_at(tx, freq_hz, points, np.full(len(points), zz)) for zz in zq], axis=0)
+            ez = ez + loop_correction(part, tx, freq_hz, points, lo, hi)
+        ez.flags.writeable = False
+        return ez
+
+    key = (
+        "field on",
+        _params_json(tx.vertical.params),
+        tuple(map(float, tx.position_m)),
+        float(tx.radius_m),
+        float(freq_hz),
+        points.shape,
+        points.tobytes(),
+        float(z),
+        loop,
+    )
+    return _TABLES.get(key, make)
 
 
 def with_vertical(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):

@@ -268,5 +268,5 @@ def find_p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
             "P.372 atmospheric noise is asked for, but no data folder is set. " + p372_maps.HOW_TO_GET
         )
     for month in model.time.months:
-        p372_maps.load_month(month, chosen)  # raises naming the file and section at fault
+        p372_maps.check_month(month, chosen)  # raises naming the file and section at fault
     return chosen
