@@ -534,8 +534,25 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
     (:func:`canonical_coupling`), kept by route, ground and directions."""
     az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
     g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
-    key = ("sky", _route_key(fl), float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
-    return _memo(key, lambda: phys.sky_gain(fl, unit, freq_hz, az, el, ground))
+    where = (float(freq_hz), az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    key = ("sky", _route_key(fl), g, *where)
+
+    def make():
+        phase = _PHASES.get((fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground))
+        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=phase)
+
+    return _memo(key, make)
+
+
+_PHASES = Memo(64, max_bytes=64 * 2**20)
+"""A run's :func:`snrgain.physics.feedline.sky_phase` on a set of directions, by its ends, the frequency and the
+directions: the same over every ground (a spread's nodes) and cable."""
+
+
+def _sky_phase(fl, freq_hz, az, el, ground):
+    from snrgain.antennas.longwire import plane_wave
+
+    return phys.sky_phase(fl, freq_hz, plane_wave(freq_hz, az, el, bearing_rad=fl.bearing_rad, ground=ground))
 
 
 def no_pickup(prep: Prepared) -> dict:

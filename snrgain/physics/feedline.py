@@ -94,6 +94,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 from snrgain.physics.quadrature import even_samples, gauss_legendre
 from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
 
@@ -354,10 +355,65 @@ def unit_coupling(c: Coupling) -> Coupling:
     return replace(c, divider=1.0 + 0j, load_ohm=1.0)
 
 
-def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
-    """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon."""
-    ev, eh = sky_response(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
-    return np.abs(ev) ** 2 + np.abs(eh) ** 2
+def sky_gain(
+    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, *, phase=None
+) -> np.ndarray:
+    """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon.
+    ``phase``: the run's :func:`sky_phase` on these directions where the caller keeps it (it does not depend on the
+    ground or the line: a ground spread's nodes take one).  :func:`sky_response`'s arithmetic up to the currents,
+    their powers then taken without the complex responses (equal to rounding)."""
+    from snrgain.antennas.longwire import (
+        _power,
+        above_horizon,
+        field_along_wire,
+        line_currents,
+        plane_wave,
+        vertical_emf,
+    )
+
+    w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    jkc, phase_l = sky_phase(fl, freq_hz, w) if phase is None else phase
+    f_v, f_h = field_along_wire(w, fl.wire_height_m)
+    lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
+    (i_v, i_h), _ = line_currents(
+        w,
+        line=c.line,
+        length_m=fl.length_m,
+        z_feed=c.z_end,
+        z_far=fl.station_ground_ohm,
+        drive_v=-w.cos_dphi * f_v[w.inv],
+        drive_h=-w.sin_dphi * f_h[w.inv],
+        v_end=lead,
+        integrals=_line_integrals(c.line.gamma, fl.length_m, jkc, phase_l),
+    )
+    # the port response's |scale (-I divider)|^2 for both polarisations (snrgain.antennas.longwire.port_response)
+    lam = C_M_PER_S / freq_hz
+    scale2 = 4 * np.pi / lam**2 * c.load_ohm * ETA0_OHM * abs(c.divider) ** 2
+    return np.where(above_horizon(w.el), scale2 * (_power(i_v) + _power(i_h)), 0.0)
+
+
+def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarray]:
+    """(j k c, e^{j k c L}) of the run on a plane wave's directions (``wave``: snrgain.antennas.longwire.plane_wave
+    with the run's bearing; c the wave's slowness along the run): the one transcendental per direction of the
+    line's integrals, the same over every ground and line (:func:`sky_gain` takes it kept)."""
+    jkc = 1j * wave.k * wave.along
+    return jkc, np.exp((1j * wave.k * fl.length_m) * wave.along)
+
+
+def _line_integrals(g: complex, L: float, jkc, phase_l):
+    """snrgain.antennas.longwire.line_integrals from the run's :func:`sky_phase` (the same arithmetic)."""
+    from snrgain.antennas.longwire import safe_expint
+
+    e2 = np.exp(-2 * g * L)
+    eg = np.exp(-g * L)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    decay = phase_l * eg
+    if g.real > 0:
+        j_plus = (decay - 1.0) / (jkc - g)
+    else:
+        j_plus = safe_expint(jkc - g, L)
+    j_minus = (decay - e2) / (jkc + g)
+    return jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus
 
 
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None, closest_at_m=None) -> np.ndarray:
