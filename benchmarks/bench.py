@@ -23,6 +23,7 @@ Reports
   timed in one process with the sky cache warm (where a warm `rank` spends its time after its imports).
 
     python benchmarks/bench.py --site     # only the realistic site and the PyNEC ratios (~1 min)
+    python benchmarks/bench.py --nec      # only the PyNEC ratios
     python benchmarks/bench.py --bands    # only three bands against one
     python benchmarks/bench.py --sweep    # only the 10,000-design sweep, in one process and on Dask (~5 min)
 
@@ -730,7 +731,9 @@ if __name__ == "__main__":
     from snrgain.allocator import tune
 
     tune()  # as the command line does
-    if "--site" in sys.argv[1:]:
+    if "--nec" in sys.argv[1:]:
+        nec_ratios()
+    elif "--site" in sys.argv[1:]:
         realistic_site()
         nec_ratios()
         kernels.report(load=False)

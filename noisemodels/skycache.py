@@ -11,6 +11,12 @@ user's cache folder (platformdirs), under ``sky/v<FORMAT>``, or $SNRGAIN_CACHE_D
 - Safe under concurrent runs: an entry is written to a temporary file in the same folder and renamed into
   place (atomic on one file system), so a reader sees a whole entry or none; an unreadable entry counts as a
   miss and is removed.  Failures to write (read-only or full disk) are ignored: the cache only saves time.
+
+Small values (a loop's static constants, a wire's line-mode constants: a few numbers that cost milliseconds each)
+go through :func:`remembered`: read back when a run has made them before, else computed and written, at most
+:data:`SMALL_WRITES` of a kind per process (a sweep or a layout trying thousands of designs writes no more than
+that), without the size bound's walk over the folder (a few hundred bytes each; the next large write counts them).
+Their keys carry a version and a digest of the code that computes them (:func:`code_digest`).
 """
 
 from __future__ import annotations
@@ -63,7 +69,10 @@ def load(kind: str, key: dict) -> np.ndarray | None:
     """The stored array for a key, or None (a miss, or the cache is off)."""
     if not enabled():
         return None
-    path = folder() / key_name(kind, key)
+    return _read(folder() / key_name(kind, key))
+
+
+def _read(path: Path) -> np.ndarray | None:
     try:
         with open(path, "rb") as fh:
             arr = np.load(fh, allow_pickle=False)
@@ -84,20 +93,68 @@ def store(kind: str, key: dict, arr: np.ndarray) -> None:
     if not enabled():
         return
     where = folder()
+    if _write(where, key_name(kind, key), arr):
+        trim(where)
+
+
+SMALL_WRITES = 64
+"""Entries of one kind :func:`remembered` writes at most per process."""
+_small_writes: dict[str, int] = {}
+
+
+def remembered(kind: str, key: dict, compute) -> np.ndarray:
+    """``compute()`` (a small array: a few numbers) kept for ``key``: the stored array when a run has made it, else
+    computed and stored (up to :data:`SMALL_WRITES` per kind and process; atomically, as :func:`store`, without its
+    walk over the folder).  The key should name what enters the numbers and a digest of the code computing them
+    (:func:`code_digest`); a stored array of another dtype than float or complex counts as a miss."""
+    if not enabled():
+        return np.asarray(compute())
+    where = folder()
+    name = key_name(kind, key)
+    kept = _read(where / name)
+    if kept is not None and kept.dtype.kind in "fc":
+        return kept
+    value = np.asarray(compute())
+    if _small_writes.get(kind, 0) < SMALL_WRITES:
+        _small_writes[kind] = _small_writes.get(kind, 0) + 1
+        _write(where, name, value)
+    return value
+
+
+_DIGESTS: dict[tuple, str] = {}
+
+
+def code_digest(*files) -> str:
+    """SHA-256 of the given source files' bytes (once per process and set of files): part of a key, so that a change
+    to the code that computes an entry makes it a miss.  An unreadable file enters as a fixed marker."""
+    names = tuple(str(f) for f in files)
+    if names not in _DIGESTS:
+        h = hashlib.sha256()
+        for f in names:
+            try:
+                h.update(Path(f).read_bytes())
+            except OSError:
+                h.update(b"?")
+        _DIGESTS[names] = h.hexdigest()
+    return _DIGESTS[names]
+
+
+def _write(where: Path, name: str, arr) -> bool:
+    """Write one entry atomically (a temporary file renamed into place); False when it could not be written."""
     tmp = None
     try:
         where.mkdir(parents=True, exist_ok=True)
         with tempfile.NamedTemporaryFile(dir=where, prefix=".tmp-", suffix=".npy", delete=False) as fh:
             tmp = Path(fh.name)
             np.save(fh, np.asarray(arr), allow_pickle=False)
-        os.replace(tmp, where / key_name(kind, key))
+        os.replace(tmp, where / name)
         tmp = None
     except OSError:
-        return
+        return False
     finally:
         if tmp is not None:
             _remove(tmp)
-    trim(where)
+    return True
 
 
 def trim(where: Path | None = None) -> None:

@@ -530,3 +530,22 @@ def test_bars_drawn_as_barh_draws_them(widths):
     assert a1.get_xlim() == a2.get_xlim() and a1.get_ylim() == a2.get_ylim()
     png = [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in (f1, f2)]
     assert png[0] == png[1]
+
+
+def test_the_results_sent_to_the_figures_process_draw_the_same_figures(results):
+    # plots.for_drawing keeps of the results what the figures draw (the sky at the moment noise_sky shows): every
+    # figure drawn from it is the figure drawn from the whole results, byte for byte, and it pickles far smaller.
+    import pickle
+
+    from snrgain.outputs import drawing
+
+    light = plots.for_drawing(results)
+    assert list(light.noise.maps) == [plots.sky_moment(results)]
+    assert len(pickle.dumps(light)) < 0.5 * len(pickle.dumps(results))
+    for name, fn in plots.FIGURES.items():
+        if name == "plan" and not plots.has_site_plan(results):
+            continue
+        kw = {"target_index": len(results.targets) - 1} if name in ("azimuth", "elevation") else {}
+        whole = drawing.figure_bytes(fn(results, **kw), "png", **plots.SAVE_OPTIONS)
+        assert drawing.figure_bytes(fn(light, **kw), "png", **plots.SAVE_OPTIONS) == whole, name
+    assert plots.for_drawing(light).noise.maps == light.noise.maps  # idempotent

@@ -685,3 +685,39 @@ def test_gains_from_the_forms_are_the_responses_powers(spec):
     np.testing.assert_allclose(gh, np.abs(eh) ** 2, rtol=1e-12, atol=0)
     assert np.all(gv[el < 0] == 0) and np.all(gh[el < 0] == 0)
     np.testing.assert_allclose(a.gain_linear(1.83e6, az, el), gv + gh, rtol=1e-15)
+
+
+@pytest.mark.parametrize("family", ["beverage", "bog"])
+def test_wave_forms_give_the_feed_current_forms(family):
+    """The kept wave's part (WaveForms.currents) is A + Z B of feed_current_forms for one far load and for several
+    at once, with the leads' EMF (beverage) and without (bog); and a grid reaching below the horizon is masked
+    there as a grid above it is not (invariant: two ways of the same line model)."""
+    from snrgain.antennas import longwire as lw
+
+    spec = {"family": family, "length": "120 m", "bearing": "30 deg", "termination": "400 ohm"}
+    if family == "beverage":
+        spec["height"] = "2 m"
+    ant = from_spec(spec)
+    f = 1.83e6
+    az, el = np.radians(np.arange(0.0, 360.0, 7.0)), np.radians(np.linspace(1.0, 89.0, 52))
+    w = lw.plane_wave(f, az, el, bearing_rad=ant.bearing_rad, ground=ant.ground)
+    f_v, f_h = lw.field_along_wire(w, ant.wire_height_m())
+    lead = lw.vertical_emf(w, 0.0, ant.wire_height_m())[w.inv] if ant.has_leads else 0.0
+    drives = dict(drive_v=w.cos_dphi * (-f_v)[w.inv], drive_h=w.sin_dphi * (-f_h)[w.inv], v_end=lead)
+    line = ant.line(f)
+    (av, bv), (ah, bh), _ = lw.feed_current_forms(w, line=line, length_m=ant.length_m, z_feed=0.0, **drives)
+    forms = lw.WaveForms.of(w, line=line, length_m=ant.length_m, all_up=True, **drives)
+    for z in (50.0, 523.0 - 40j):
+        i_v, i_h = forms.currents(z)
+        np.testing.assert_allclose(i_v, av + z * bv, rtol=1e-12, atol=1e-12 * np.abs(av + z * bv).max())
+        np.testing.assert_allclose(i_h, ah + z * bh, rtol=1e-12, atol=1e-12 * np.abs(ah + z * bh).max())
+    zs = np.array([100.0, 300.0, 900.0])[:, None]
+    i_v, i_h = forms.currents(zs)
+    assert i_v.shape == (3, az.size)
+    np.testing.assert_allclose(i_h[2], ah + 900.0 * bh, rtol=1e-12)
+    # the pattern below the horizon is zero, above it the same as on the upper grid alone
+    el2 = np.concatenate([el, -el[:5]])
+    az2 = np.concatenate([az, az[:5]])
+    g_all = ant.gain_linear(f, az2, el2)
+    assert np.all(g_all[-5:] == 0.0)
+    np.testing.assert_allclose(g_all[:-5], ant.gain_linear(f, az, el), rtol=1e-12)

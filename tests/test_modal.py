@@ -318,3 +318,57 @@ def test_the_secant_settles_on_the_plain_iterations_root(f, h, sigma, eps):
     assert got[0] == pytest.approx(new, rel=1e-11)
     assert got[1] == pytest.approx(z, rel=1e-11)
     assert got[2] == pytest.approx(y, rel=1e-11)
+
+
+@pytest.mark.parametrize("sigma, eps", [(5.0, 80.0), (0.03, 20.0), (0.005, 13.0), (0.001, 5.0), (1e-4, 3.0)])
+def test_newton_settles_on_the_secants_mode(sigma, eps):
+    # Newton's steps with the integrals' slopes and the check rule (modal._settle) against the secant's path
+    # finished on the fine rule (modal.wire_over_earth_secant, the solver before Newton): sea water to very dry
+    # ground, 0.5-8 MHz, bare wires 0.3-12 m up and an insulated wire resting on the soil.  Measured over 1029
+    # such wires (seven grounds, five heights, three radii, insulated wires on and over the soil): at most 6e-12
+    # relative in gamma, Z' and Y' (the two rules' own difference where the check accepts the coarse root), and
+    # the same wires without a settled mode.  1e-10 leaves room.
+    g = _ground(sigma, eps)
+    for f in (0.5e6, 3.6e6, 8.0e6):
+        for h, a in ((0.3, 0.5e-3), (2.5, A), (12.0, 2e-3)):
+            zi = complex(lines.wire_internal_impedance(f, a))
+            start = complex(lines.overhead_wire(f, radius_m=a, height_m=h, ground=g, model="closed-form").gamma)
+            args = (f, h, a, float(eps), float(sigma), zi, start)
+            _same_mode(modal.wire_over_earth.__wrapped__(*args), modal.wire_over_earth_secant(*args))
+        b = 1.6e-3
+        start = lines.insulated_on_ground(
+            f, radius_m=0.5e-3, insulation_radius_m=b, insulation_permittivity=2.3, ground=g, model="closed-form"
+        ).gamma
+        args = (f, b, 0.5e-3, float(eps), float(sigma), complex(lines.wire_internal_impedance(f, 0.5e-3)))
+        args += (complex(start), b, 2.3)
+        _same_mode(modal.wire_over_earth.__wrapped__(*args), modal.wire_over_earth_secant(*args))
+
+
+def _same_mode(got, want):
+    assert (got is None) == (want is None)
+    if want is not None:
+        for x, y in zip(got, want):
+            assert abs(x - y) <= 1e-10 * abs(y)
+
+
+@pytest.mark.parametrize("f, h, sigma, eps, offset", [(1.83e6, 2.5, 0.005, 13, 0.0), (7.1e6, 2e-3, 1e-4, 3, 1.6e-3)])
+def test_the_integrals_slopes_are_their_derivatives(f, h, sigma, eps, offset):
+    # The slopes Newton's steps use (modal._earth_sums, modal._image_slope) against central differences of the
+    # values on the same rule (step 1e-6 |gamma|: agreement to about 1e-9 measured; the image term's slope loses
+    # digits to cancellation where kappa0 r' is small, 3e-4 at 2 mm up, which only slows Newton's steps).
+    from noisemodels.groundwave import complex_permittivity
+
+    k0 = 2 * np.pi * f / C_M_PER_S
+    n2 = complex_permittivity(f, eps, sigma)
+    g = complex(0.03 * k0, 1.04 * k0)
+    rule = modal._fixed_rule(g, f, h, n2, offset, modal.COARSE_NODES)
+    p, q, dp, dq = modal._earth_sums(rule, g, k0, h, n2, slopes=True)
+    assert (p, q) == modal._earth_on(rule, g, k0, h, n2)
+    d = 1e-6 * abs(g)
+    (pp, qp), (pm, qm) = modal._earth_on(rule, g + d, k0, h, n2), modal._earth_on(rule, g - d, k0, h, n2)
+    assert abs(dp - (pp - pm) / (2 * d)) < 1e-7 * abs(dp)
+    assert abs(dq - (qp - qm) / (2 * d)) < 1e-7 * abs(dq)
+    lam, dlam = modal._image_slope(g, k0, 0.0008, h)
+    assert lam == modal._image_term(g, k0, 0.0008, h)
+    central = (modal._image_term(g + d, k0, 0.0008, h) - modal._image_term(g - d, k0, 0.0008, h)) / (2 * d)
+    assert abs(dlam - central) < 1e-3 * abs(central)

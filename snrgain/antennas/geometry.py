@@ -38,6 +38,8 @@ class Geometry:
     ce: np.ndarray
     cos_az: np.ndarray
     sin_az: np.ndarray
+    all_up: bool = False
+    """Every direction at or above the horizon (no mask for a pattern to apply)."""
 
 
 _GEOMETRY: OrderedDict = OrderedDict()
@@ -63,7 +65,8 @@ def direction_geometry(az: np.ndarray, el: np.ndarray) -> Geometry:
     el_u, inv = distinct(np.clip(el, 0.0, np.pi / 2))
     inv = inv.reshape(el.shape)
     c_u = np.cos(el_u)
-    geo = Geometry(az.copy(), el.copy(), el_u, inv, c_u, np.sin(el_u), c_u[inv], np.cos(az), np.sin(az))
+    all_up = bool(el.size == 0 or el.min() >= 0.0)
+    geo = Geometry(az.copy(), el.copy(), el_u, inv, c_u, np.sin(el_u), c_u[inv], np.cos(az), np.sin(az), all_up)
     _GEOMETRY[key] = geo
     if len(_GEOMETRY) > _GEOMETRY_SLOTS:
         _GEOMETRY.popitem(last=False)

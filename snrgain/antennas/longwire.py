@@ -77,7 +77,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Literal
+from typing import Literal, NamedTuple
 
 import numpy as np
 from pydantic import Field, model_validator
@@ -551,6 +551,43 @@ def line_currents(
     return i_f, (drive_v * qr + ends_r, drive_h * qr)
 
 
+class WaveForms(NamedTuple):
+    """What a plane wave drives on a wire, kept so that the feed current for any far load Z is a few products:
+    the line's integrals J+ and J- (:func:`line_integrals`), e^{jkcL}, the distributed drives per direction, the
+    leads' EMF and the line's constants.  :meth:`currents` gives A + Z B of :func:`feed_current_forms` (a zero feed
+    load) in the same number of operations as the pattern with its resistor known."""
+
+    j_plus: np.ndarray
+    j_minus: np.ndarray
+    phase_l: np.ndarray
+    drive_v: np.ndarray
+    drive_h: np.ndarray
+    v_end: np.ndarray | float
+    z0: complex
+    ch: complex
+    sh: complex
+    eg: complex
+    el: np.ndarray
+    all_up: bool
+
+    @classmethod
+    def of(
+        cls, w: PlaneWave, *, line: lines.LineConstants, length_m: float, drive_v, drive_h, v_end, all_up: bool
+    ) -> WaveForms:
+        _, _, eg, ch, sh, phase_l, j_plus, j_minus = line_integrals(w, line.gamma, length_m)
+        return cls(j_plus, j_minus, phase_l, drive_v, drive_h, v_end, line.z0, ch, sh, eg, w.el, all_up)
+
+    def currents(self, z_far) -> tuple[np.ndarray, np.ndarray]:
+        """(vertical, horizontal) feed currents times the line's denominator D0 + Z D1 with far load ``z_far`` (a
+        number, or an array broadcasting against the directions: several resistors at once)."""
+        z0 = self.z0
+        q = (0.5 * (z0 + z_far)) * self.j_plus + (0.5 * (z0 - z_far)) * self.j_minus
+        i_v = self.drive_v * q
+        if not (np.isscalar(self.v_end) and self.v_end == 0):  # the leads' EMF at both ends
+            i_v += self.v_end * ((z0 * self.ch + z_far * self.sh) - (z0 * self.eg) * self.phase_l)
+        return i_v, self.drive_h * q
+
+
 def _power(e):
     """|e|^2 without the square root that abs() takes."""
     return e.real * e.real + e.imag * e.imag
@@ -715,10 +752,11 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         far_rod = self.far_rod_ohm
 
         def pattern(az, el, r):
-            (av, bv), (ah, bh), _ = self._response_forms(freq_hz, az, el)  # the wave's part, kept per sky
+            forms = self._response_forms(freq_hz, az, el)  # the wave's part, kept per sky
             # several resistors at once: (resistors, directions); each with the far rod at the foot of the far lead
             z = self.up_lead(np.asarray(r, dtype=float)[..., None] + far_rod, freq_hz)
-            p = (_power(av + z * bv) + _power(ah + z * bh)) / _power(d0 + z * d1)
+            i_v, i_h = forms.currents(z)
+            p = (_power(i_v) + _power(i_h)) / _power(d0 + z * d1)
             return np.where(above_horizon(np.asarray(el, dtype=float)), p, 0.0)
 
         pattern.vectorised = True
@@ -810,31 +848,30 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             return tuple(
                 port_response(freq_hz, currents[pol][0], load_ohm=load, elevation_rad=w.el) for pol in ("v", "h")
             )
-        forms, z_far, den, load, el, shape = at
-        return tuple(
-            port_response(freq_hz, (a + z_far * b) / den, load_ohm=load, elevation_rad=el).reshape(shape)
-            for a, b in forms
-        )
+        currents, den, load, el, _, shape = at
+        return tuple(port_response(freq_hz, i / den, load_ohm=load, elevation_rad=el).reshape(shape) for i in currents)
 
     def _forms_at(self, freq_hz, azimuth_rad, elevation_rad):
-        """(((A_v, B_v), (A_h, B_h)), far load Z, feed denominator D0 + Z D1, receiver load, elevations, shape) of a
-        terminated wire whose currents are the line model's (:meth:`_response_forms`); None for any other."""
+        """((I_v, I_h) with the far load Z over D0 + Z D1 not yet divided, feed denominator D0 + Z D1 over the feed
+        lead's current ratio, receiver load, elevations, every direction above the horizon, shape) of a terminated
+        wire whose currents are the line model's (:meth:`_response_forms`); None for any other."""
         if not self.terminated or type(self).currents is not LongWire.currents:
             return None
         load = self.receiver_load_ohm(freq_hz)
         z_far = self.far_load_ohm(freq_hz)
-        (av, bv), (ah, bh), el = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
+        forms = self._response_forms(freq_hz, azimuth_rad, elevation_rad)
         d0, d1 = line_denominator(self.line(freq_hz), self.length_m, self.feed_load_ohm(freq_hz))
         shape = np.broadcast_shapes(np.shape(azimuth_rad), np.shape(elevation_rad))
         # the current in the receiver's load: the wire's feed current brought down the feed lead
         den = (d0 + z_far * d1) / self.feed_current_ratio(freq_hz)
-        return ((av, bv), (ah, bh)), z_far, den, load, el, shape
+        return forms.currents(z_far), den, load, forms.el, forms.all_up, shape
 
     def _response_forms(self, freq_hz, azimuth_rad, elevation_rad):
-        """((A_v, B_v), (A_h, B_h), elevations) of :func:`feed_current_forms` on these directions: the feed currents
-        for any far load Z and feed load are (A + Z B) / (D0 + Z D1) with :func:`line_denominator`, so they are kept
-        for the same wire with another resistor or transformer (a termination searched under the sky tries many on
-        the same sky; the result is the same to rounding as :meth:`currents`)."""
+        """The wave's part of the feed currents on these directions (:class:`WaveForms`): for any far load Z and
+        feed load they are ``currents(Z)`` / (D0 + Z D1) with :func:`line_denominator` (the A + Z B of
+        :func:`feed_current_forms`), so they are kept for the same wire with another resistor or transformer (a
+        termination searched under the sky tries many on the same sky; the result is the same to rounding as
+        :meth:`currents`)."""
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         az, el = np.ascontiguousarray(az), np.ascontiguousarray(el)
         if self._form_key is None:
@@ -846,16 +883,16 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             w = plane_wave(freq_hz, az, el, bearing_rad=self.bearing_rad, ground=self.ground, geo=geo)
             f_v, f_h = field_along_wire(w, self.wire_height_m())
             lead = vertical_emf(w, 0.0, self.wire_height_m())[w.inv] if self.has_leads else 0.0
-            forms = feed_current_forms(
+            forms = WaveForms.of(
                 w,
                 line=self.line(freq_hz),
                 length_m=self.length_m,
-                z_feed=0.0,
                 drive_v=w.cos_dphi * (-f_v)[w.inv],
                 drive_h=w.sin_dphi * (-f_h)[w.inv],
                 v_end=lead,
+                all_up=geo.all_up if geo is not None else bool(np.all(el >= 0.0)),
             )
-            return (*forms[:2], w.el, geo)
+            return forms, geo
 
         if az.size <= _FORM_BYTES_KEY_SIZE:  # a few directions (a resistor's figure): their values are the key
             geo = None
@@ -866,7 +903,7 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             # its id while the key is kept.
             geo = direction_geometry(az, el)
             key = (self._form_key, float(freq_hz), id(geo))
-        return _FORMS.get(key, make)[:3]
+        return _FORMS.get(key, make)[0]
 
     def _form_powers(self, freq_hz, azimuth_rad, elevation_rad):
         """(|I_v|^2, |I_h|^2) scaled to realized gain, from the response forms (a terminated wire whose currents
@@ -877,11 +914,13 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         at = self._forms_at(freq_hz, azimuth_rad, elevation_rad)
         if at is None:
             return None
-        forms, z_far, den, load, el, shape = at
+        currents, den, load, el, all_up, shape = at
         lam = C_M_PER_S / freq_hz
         scale2 = 4 * np.pi / lam**2 * load * ETA0_OHM / _power(den)
+        if all_up:  # a grid of the upper hemisphere: no mask to apply
+            return tuple((scale2 * _power(i)).reshape(shape) for i in currents)
         up = above_horizon(el)
-        return tuple(np.where(up, scale2 * _power(a + z_far * b), 0.0).reshape(shape) for a, b in forms)
+        return tuple(np.where(up, scale2 * _power(i), 0.0).reshape(shape) for i in currents)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         """Realized partial gains (vertical, horizontal) into the actual receiver load, linear."""

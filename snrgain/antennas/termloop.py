@@ -193,12 +193,38 @@ def loop_constants(upper, lower, radius_m: float, image: float = -1.0):
     ``image`` (-1 a perfect conductor).  Thin-wire moment solution: uniform charge (current) on each segment,
     potential matched at the centres (on the wire's surface).  The potential matrix is P0 + image P1 (the wire's
     own and its image's), so :func:`_loop_matrices` builds both once per outline and each ground only solves, once:
-    the same outline over the same ground (every resistor tried, every ground of the spread) reuses the answer."""
+    the same outline over the same ground (every resistor tried, every ground of the spread) reuses the answer, and
+    later runs read it back from the persistent cache (:func:`noisemodels.skycache.remembered`, kind "loopconst")."""
     return _loop_constants(_key(upper), _key(lower), float(radius_m), float(image))
+
+
+LOOP_CONSTANTS_VERSION = 1
+"""Part of the persistent cache's key of :func:`loop_constants`; bump it when what they hold changes in a way the key's
+code digest (this module's and the ground module's sources) would not show."""
 
 
 @functools.lru_cache(maxsize=256)
 def _loop_constants(upper: tuple, lower: tuple, radius_m: float, image: float):
+    from noisemodels import skycache
+    from snrgain.physics import ground
+
+    key = {
+        "version": LOOP_CONSTANTS_VERSION,
+        "code": skycache.code_digest(__file__, ground.__file__),
+        "upper": upper,
+        "lower": lower,
+        "radius_m": radius_m,
+        "image": image,
+        "segments": _SEGMENTS,
+    }
+    kept = skycache.remembered("loopconst", key, lambda: np.array(_solve_loop_constants(upper, lower, radius_m, image)))
+    if kept.shape != (3,):  # not what this code writes: worked afresh
+        kept = np.array(_solve_loop_constants(upper, lower, radius_m, image))
+    return float(kept[0]), float(kept[1]), float(kept[2])
+
+
+def _solve_loop_constants(upper: tuple, lower: tuple, radius_m: float, image: float):
+    """(L, C, h) of :func:`loop_constants`, solved."""
     inductance, p_own, p_image, heights, nu = _loop_matrices(upper, lower, radius_m)
     p = (p_own + image * p_image) / (4 * np.pi * EPS0_F_PER_M)
     n = len(heights)

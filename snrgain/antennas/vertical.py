@@ -67,7 +67,7 @@ from snrgain.antennas.base import Antenna, AntennaParams, above_horizon, registe
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import GroundField, make_ground, quantity
 from snrgain.memo import Memo
-from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, vertical_reflection
 from snrgain.physics.quadrature import gauss_legendre
 
 MAX_HEIGHT_WAVELENGTHS = 0.625
@@ -121,31 +121,63 @@ def thin_wire_current(freq_hz: float, height_m: float, radius_m: float, image: c
     ground; :func:`image_coefficient`): Hallen's equation with the reduced kernel,
     integral I(z') [K(z - z') + image K(z + z')] dz' = -j (4 pi / eta0) [C cos kz + sin kz], matched at the pulses'
     centres and at the tip (the unknowns the currents and C).  The pulses' offsets repeat, so the kernel is worked
-    once per offset."""
+    once per offset.  The currents are kept in the persistent cache too (:func:`noisemodels.skycache.remembered`,
+    kind "wirecurrent"): a later run reads them back, to the bit."""
     key = (float(freq_hz), float(height_m), float(radius_m), complex(image))
 
     def make():
         n = pulses(height_m, radius_m)
         if n < 2:
             raise ValueError(f"height: {height_m:g} m is too short for a wire of {radius_m:g} m radius")
-        k = 2 * np.pi * freq_hz / C_M_PER_S
         dz = height_m / n
-        # K at offsets m dz / 2, m = 0 .. 4n: centre to centre (even m), tip to centre (odd m), images beyond
-        p = _pulse_kernel(k, 0.5 * dz * np.arange(4 * n + 2), dz, radius_m)
         i = np.arange(n)
-        a = np.zeros((n + 1, n + 1), dtype=complex)
-        a[:n, :n] = p[2 * np.abs(i[:, None] - i[None, :])] + image * p[2 * (i[:, None] + i[None, :] + 1)]
-        a[n, :n] = p[2 * n - 2 * i - 1] + image * p[2 * n + 2 * i + 1]  # the tip, h - z_j and h + z_j
-        zm = np.concatenate([(i + 0.5) * dz, [height_m]])
-        a[:, n] = 1j * 4 * np.pi / ETA0_OHM * np.cos(k * zm)
-        b = -1j * 4 * np.pi / ETA0_OHM * np.sin(k * zm)
-        current = np.linalg.solve(a, b)[:n]
+        current = _remembered_current(key, n, lambda: _solve_current(freq_hz, height_m, radius_m, image, n))
         z = (i + 0.5) * dz
         z.flags.writeable = False
         current.flags.writeable = False
         return z, current
 
     return _CURRENTS.get(key, make)
+
+
+THIN_WIRE_VERSION = 1
+"""Part of the persistent cache's key of :func:`thin_wire_current`; bump it when what it holds changes in a way the
+key's code digest (this module's, the ground's and the quadrature's sources) would not show."""
+
+
+def _remembered_current(key: tuple, n: int, solve) -> np.ndarray:
+    """The solved current (n,) for ``key`` (frequency, height, radius, image): from the persistent cache, or
+    ``solve()``."""
+    from noisemodels import skycache
+    from snrgain.physics import ground, quadrature
+
+    disk_key = {
+        "version": THIN_WIRE_VERSION,
+        "code": skycache.code_digest(__file__, ground.__file__, quadrature.__file__),
+        "wire": list(key),
+        "pulses": n,
+        "kernel_points": _KERNEL_POINTS,
+    }
+    current = skycache.remembered("wirecurrent", disk_key, solve)
+    if current.dtype != complex or current.shape != (n,):  # not what this code writes: solved afresh
+        current = solve()
+    return current
+
+
+def _solve_current(freq_hz: float, height_m: float, radius_m: float, image: complex, n: int) -> np.ndarray:
+    """The currents (n,) of :func:`thin_wire_current`, solved."""
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    dz = height_m / n
+    # K at offsets m dz / 2, m = 0 .. 4n: centre to centre (even m), tip to centre (odd m), images beyond
+    p = _pulse_kernel(k, 0.5 * dz * np.arange(4 * n + 2), dz, radius_m)
+    i = np.arange(n)
+    a = np.zeros((n + 1, n + 1), dtype=complex)
+    a[:n, :n] = p[2 * np.abs(i[:, None] - i[None, :])] + image * p[2 * (i[:, None] + i[None, :] + 1)]
+    a[n, :n] = p[2 * n - 2 * i - 1] + image * p[2 * n + 2 * i + 1]  # the tip, h - z_j and h + z_j
+    zm = np.concatenate([(i + 0.5) * dz, [height_m]])
+    a[:, n] = 1j * 4 * np.pi / ETA0_OHM * np.cos(k * zm)
+    b = -1j * 4 * np.pi / ETA0_OHM * np.sin(k * zm)
+    return np.linalg.solve(a, b)[:n]
 
 
 class VerticalParams(AntennaParams):
@@ -218,16 +250,16 @@ class Vertical(Antenna):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
         geo = direction_geometry(az, el)
-        r_v, _ = reflection_coefficients(self.ground, geo.el_u, freq_hz)
+        r_v = vertical_reflection(self.ground, geo.s_u, geo.c_u, freq_hz)
         f = self._form_factor(k, geo.s_u, r_v)
         p_rad, i_sq = self._power_terms(freq_hz)
         # |e|^2 = 4 pi U / P_in with U = eta0 k^2 / (32 pi^2) cos^2(psi) |F|^2.
         scale = np.sqrt(4 * np.pi * ETA0_OHM * k**2 / (32 * np.pi**2) / (p_rad + 0.5 * i_sq * self.ground_loss_ohm))
-        return scale * geo.c_u * f, geo.inv, above_horizon(el)
+        return scale * geo.c_u * f, geo.inv, (None if geo.all_up else above_horizon(el))
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
         e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
-        ev = np.where(up, e[inv], 0.0)
+        ev = e[inv] if up is None else np.where(up, e[inv], 0.0)
         return ev, np.zeros_like(ev)
 
     def transmit_segments(self, freq_hz: float):
@@ -277,7 +309,7 @@ class Vertical(Antenna):
     def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
         e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
         p = (e.real * e.real + e.imag * e.imag)[inv]
-        return p if up.all() else np.where(up, p, 0.0)
+        return p if up is None else np.where(up, p, 0.0)
 
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
         gv = self.gain_linear(freq_hz, azimuth_rad, elevation_rad)

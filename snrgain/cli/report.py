@@ -56,10 +56,14 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
         for w in results.warnings:
             click.echo(f"warning: {w}", err=True)
 
+        light = plots.for_drawing(results)  # what the figures' process needs of the results (a tenth of them)
+
         def draw(jobs, **kw):
             plans = [k for k, (make, _, _) in enumerate(jobs) if getattr(make, "func", None) is plots.site_plan]
             return drawer.draw(
-                jobs, ahead={k: ahead for k in plans} if ahead and _same_looks(results, plan) else None, **kw
+                [(_on(make, results, light), fmt, opts) for make, fmt, opts in jobs],
+                ahead={k: ahead for k in plans} if ahead and _same_looks(results, plan) else None,
+                **kw,
             )
 
         with progress(None, "report: drawing the figures"):
@@ -77,6 +81,16 @@ _RESULT_MODULES = (
 )
 """What the figures' process imports before the results reach it: the figure functions and the modules of the
 objects the results hold (unpickling them would import them then)."""
+
+
+def _on(make, results, light):
+    """A figure job's function (a partial of a figure function of ``results``) on ``light`` in their place
+    (:func:`snrgain.outputs.plots.for_drawing`); any other as it is."""
+    from functools import partial
+
+    if isinstance(make, partial) and make.args and make.args[0] is results:
+        return partial(make.func, light, *make.args[1:], **make.keywords)
+    return make
 
 
 def _load(scenario, *, nside, p372_dir, reference=None, band=None):
@@ -185,13 +199,14 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         from snrgain.files import write_set
 
         drawn: list[bytes] = []
+        light = plots.for_drawing(results)  # what the figures' process needs of the results (a tenth of them)
 
         def writer(k):
             def write(tmp_path):
                 if not drawn:  # the first file draws them all, side by side, inside the set's temporary folder
                     drawn.extend(
                         drawer.draw(
-                            [(partial(plots.FIGURES[n], results, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs],
+                            [(partial(plots.FIGURES[n], light, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs],
                             done=step,
                             cost=[plots.FIGURE_COST[n] for _, n, _ in jobs],
                             ahead={k: ahead for k, (_, n, _) in enumerate(jobs) if n == "plan"}

@@ -938,6 +938,21 @@ def located_sources(res, *, ax=None):
     return fig
 
 
+def for_drawing(results):
+    """The results with only what the figures of the command line draw (:data:`FIGURES` and the report's): the noise
+    sky's components at the moment :func:`noise_sky` shows (:func:`sky_moment`), not at every month and hour (the
+    sky maps are nearly all of a Results' bytes: the realistic site's 6.0 MB pickled, 0.5 MB so).  Everything else
+    is the results' own.  Sent to the figures' process (:class:`snrgain.outputs.drawing.Drawer`), which needs no
+    more; the sky at another moment needs the whole results."""
+    from dataclasses import replace
+
+    noise = getattr(results, "noise", None)
+    if not hasattr(results, "to_xarray") or noise is None or not noise.maps:
+        return results
+    moment = sky_moment(results)
+    return replace(results, noise=replace(noise, maps={moment: noise.maps[moment]} if moment in noise.maps else {}))
+
+
 FIGURES = {
     "azimuth": azimuth_pattern,
     "elevation": elevation_pattern,

@@ -167,6 +167,17 @@ def reflection_coefficients(ground: Ground | None, elevation_rad, freq_hz):
     return (es - root) / (es + root), (s - root) / (s + root)
 
 
+def vertical_reflection(ground: Ground | None, sin_el, cos_el, freq_hz):
+    """R_v over ``ground`` from the sines and cosines of the elevations (a pattern that has them already, and
+    needs no R_h); the same form as :func:`reflection_coefficients`."""
+    if ground is None:
+        return np.ones_like(np.asarray(sin_el, dtype=float), dtype=complex)
+    eps_c = ground.complex_permittivity(freq_hz)
+    root = np.sqrt(eps_c - cos_el * cos_el + 0j)
+    es = eps_c * sin_el
+    return (es - root) / (es + root)
+
+
 ROD_LENGTH_M = 1.2  # a 4 ft rod, the size common at the ends of receiving wires (common practice)
 ROD_DIAMETER_M = 0.016  # 5/8 in
 

@@ -259,9 +259,8 @@ def insulated_on_ground(
         return closed
     z_int = wire_internal_impedance(freq_hz, a, wire_conductivity_s_per_m)
     if buried:
-        from snrgain.physics.modal import wire_in_earth
-
-        mode = wire_in_earth(
+        mode = _mode(
+            "wire_in_earth",
             float(freq_hz),
             float(depth_m),
             float(a),
@@ -283,9 +282,8 @@ def _exact_or(
 ) -> LineConstants:
     """The exact mode (snrgain.physics.modal) started from the closed-form constants ``closed``; those where it does not
     settle.  ``insulation``: (outer radius [m], relative permittivity) of an insulated wire."""
-    from snrgain.physics.modal import wire_over_earth
-
-    mode = wire_over_earth(
+    mode = _mode(
+        "wire_over_earth",
         float(closed.freq_hz),
         float(height_m),
         float(radius_m),
@@ -296,6 +294,35 @@ def _exact_or(
         *(() if insulation is None else (float(insulation[0]), float(insulation[1]))),
     )
     return closed if mode is None else from_series_shunt(closed.freq_hz, mode[1], mode[2])
+
+
+WIRE_MODE_VERSION = 1
+"""Part of the persistent cache's key of the wire modes (:func:`_mode`); bump it when what they hold changes in a way
+the key's code digest (the sources of snrgain.physics.modal and of what it reads) would not show."""
+
+
+@lru_cache(maxsize=256)
+def _mode(solver: str, *args):
+    """``snrgain.physics.modal.<solver>(*args)`` ((gamma, Z', Y') or None), kept in the persistent cache by its
+    arguments and the solver's code (:func:`noisemodels.skycache.remembered`, kind "wiremode"): a later run reads the
+    numbers back, to the bit, instead of iterating the modal equation again.  Kept in this process too (by the
+    arguments: a hit costs no key's hash)."""
+    import noisemodels.groundwave
+    from noisemodels import skycache
+    from snrgain.physics import ground, modal, quadrature
+
+    solve = getattr(modal, solver)
+
+    def compute():
+        mode = solve(*args)
+        return np.zeros(0, dtype=complex) if mode is None else np.array(mode, dtype=complex)
+
+    files = (modal.__file__, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
+    key = {"version": WIRE_MODE_VERSION, "code": skycache.code_digest(*files), "solver": solver, "args": list(args)}
+    kept = skycache.remembered("wiremode", key, compute)
+    if kept.dtype != complex or kept.shape not in ((0,), (3,)):  # not what this code writes: solved afresh
+        kept = compute()
+    return None if kept.size == 0 else tuple(complex(v) for v in kept)
 
 
 def _check_geometry(radius_m, height_m):
