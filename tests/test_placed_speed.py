@@ -165,6 +165,26 @@ def test_feed_lines_currents_in_one_pass_equal_each_alone():
     np.testing.assert_allclose(amps, [feedline.port_amplitude(F_HZ, i, c.load_ohm) for i, (_, c) in zip(got, pairs)])
 
 
+def test_feed_lines_runs_worked_together_equal_each_alone():
+    # phys.emf_currents (every run's samples in one pass) gives emf_current's current of each run: raised, buried,
+    # choked, on other samples
+    from snrgain.model import feedline
+
+    g = from_si("beverage", length=200.0, height=2.0, bearing=0.0, ground="moist loam").ground
+    runs = [
+        phys.FeedLine((0.0, 0.0), (0.0, -120.0), 1.0, 0.0027, 0.0035, 25.0),
+        phys.FeedLine((5.0, 3.0), (40.0, -90.0), None, 0.0027, 0.0035, 40.0),
+        phys.FeedLine((-20.0, 10.0), (60.0, 60.0), 2.0, 0.0027, 0.0035, 10.0, choke_ohm=900.0),
+    ]
+    for src in (_source((10.0, -60.0), 1.0), _source((30.0, 20.0), 4.0, "horizontal", 30.0)):
+        for kind, _ in placed.dipoles(src):
+            cs = [phys.coupling(fl, F_HZ, g, rod_ohm=30.0, loop_ohm=800 - 90j, load_ohm=400.0) for fl in runs]
+            emfs = [feedline._route_emf(fl, src, kind, F_HZ, g) for fl in runs]
+            want = [phys.emf_current(fl, c, *e) for fl, c, e in zip(runs, cs, emfs)]
+            np.testing.assert_allclose(phys.emf_currents(runs, cs, emfs), want, rtol=1e-12)
+            np.testing.assert_array_equal(phys.emf_currents(runs[:1], cs[:1], emfs[:1]), want[:1])
+
+
 def test_the_near_fields_kept_geometry_gives_the_field_worked_afresh():
     # noisemodels.halfspace keeps the interpolation's geometry by the points asked; another ground at the same
     # points reads its own table through it: the same field as with nothing kept, for points at a few heights and

@@ -416,12 +416,26 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
     """:func:`_route_current` of each (FeedLine, Coupling) of ``lines_``: (N,), each route's kept current looked up
     once however many couplings share it (a termination search's resistors)."""
     units: dict = {}
+    todo = []  # the routes whose current is not kept: worked together (phys.emf_currents)
+    where = _source_key(src, kind, freq_hz, ground)
+    for fl, c in lines_:
+        route = _route_key(fl)
+        if route in units:
+            continue
+        key = ("route-current", route, where)
+        if key in _MEMO:
+            units[route] = _MEMO.get(key, None)
+        else:
+            units[route] = None
+            todo.append((route, key, fl, phys.unit_coupling(c)))
+    if todo:
+        emfs = [_route_emf(fl, src, kind, freq_hz, ground) for _, _, fl, _ in todo]
+        currents = phys.emf_currents([t[2] for t in todo], [t[3] for t in todo], emfs)
+        for (route, key, _, unit), current in zip(todo, currents):
+            units[route] = _memo(key, lambda unit=unit, current=current: (unit, complex(current)))
     out = np.empty(len(lines_), dtype=complex)
     for j, (fl, c) in enumerate(lines_):
-        route = _route_key(fl)
-        if route not in units:
-            units[route] = _route_unit(fl, c, src, kind, freq_hz, ground)
-        unit, current = units[route]
+        unit, current = units[_route_key(fl)]
         out[j] = current * phys.current_scale(unit, c)
     return out
 

@@ -474,6 +474,31 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
     return complex(-current * c.divider)
 
 
+def emf_currents(fls, cs, emfs) -> np.ndarray:
+    """:func:`emf_current` of several runs at once (K,): ``fls`` their FeedLines, ``cs`` their couplings, ``emfs``
+    their :func:`route_emf` (x, EMF, lead EMFs); every run's samples in one pass of the transfer function, each
+    run's sum its own (the same arithmetic but the order of the sums: equal to rounding)."""
+    k = len(fls)
+    if k == 1:
+        return np.array([emf_current(fls[0], cs[0], *emfs[0])])
+    sizes = np.array([len(x) for x, _, _ in emfs])
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+    length = np.array([fl.length_m for fl in fls])
+    g = np.array([c.line.gamma for c in cs], dtype=complex)
+    z0 = np.array([c.line.z0 for c in cs], dtype=complex)
+    z_a = np.array([c.z_end for c in cs], dtype=complex)
+    z_s = np.array([fl.station_ground_ohm for fl in fls], dtype=complex)
+    d = z0 * (z_a + z_s) * np.cosh(g * length) + (z0**2 + z_a * z_s) * np.sinh(g * length)
+    run = np.repeat(np.arange(k), sizes)
+    arg = g[run] * (length[run] - np.concatenate([x for x, _, _ in emfs]))
+    transfer = (z0[run] * np.cosh(arg) + z_s[run] * np.sinh(arg)) / d[run]
+    weights = np.concatenate([pairs_rule(x) for x, _, _ in emfs])
+    current = np.add.reduceat(np.concatenate([e for _, e, _ in emfs]) * transfer * weights, starts)
+    leads = np.array([lead for _, _, lead in emfs], dtype=complex).reshape(k, 2)
+    current = current + leads[:, 0] * transfer[starts] - leads[:, 1] * transfer[starts + sizes - 1]
+    return -current * np.array([c.divider for c in cs], dtype=complex)
+
+
 def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m: float) -> complex:
     """The current [A] through the receiver's load from an incident field given as ``field(points (N, 2), heights
     (N,)) -> (N, 3)`` [east, north, up] (a placed source's, :func:`snrgain.model.placed.field_vector`): the EMF
