@@ -185,6 +185,25 @@ def test_feed_lines_runs_worked_together_equal_each_alone():
             np.testing.assert_array_equal(phys.emf_currents(runs[:1], cs[:1], emfs[:1]), want[:1])
 
 
+def test_runs_points_and_emfs_worked_together_are_each_runs_to_the_bit():
+    runs = [
+        phys.FeedLine((0.0, 0.0), (0.0, -120.0), 1.0, 0.0027, 0.0035, 25.0),
+        phys.FeedLine((5.0, 3.0), (40.0, -90.0), None, 0.0027, 0.0035, 40.0),
+        phys.FeedLine((-20.0, 10.0), (60.0, 60.0), 2.0, 0.0027, 0.0035, 10.0),
+    ]
+    xs = [phys.route_samples(fl, F_HZ, 15.0, None, 0.3 * fl.length_m) for fl in runs]
+    q, z = phys.runs_points(runs, xs)
+    alone = [phys.route_points(fl, x) for fl, x in zip(runs, xs)]
+    np.testing.assert_array_equal(q, np.concatenate([a[0] for a in alone]))
+    np.testing.assert_array_equal(z, np.concatenate([a[1] for a in alone]))
+    rng = np.random.default_rng(3)
+    e = rng.normal(size=(len(q), 3)) + 1j * rng.normal(size=(len(q), 3))
+    parts = np.split(e, np.cumsum([len(a[0]) for a in alone])[:-1])
+    for got, fl, x, part in zip(phys.runs_emf_from(runs, xs, e), runs, xs, parts):
+        for a, b in zip(got, phys.route_emf_from(fl, x, part)):
+            np.testing.assert_array_equal(a, b)
+
+
 def test_the_near_fields_kept_geometry_gives_the_field_worked_afresh():
     # noisemodels.halfspace keeps the interpolation's geometry by the points asked; another ground at the same
     # points reads its own table through it: the same field as with nothing kept, for points at a few heights and

@@ -347,7 +347,8 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
     except ValueError:
         return []
     out = []
-    for key, fl, x, (q, z) in _routes_not_held(routes, src, kind, freq_hz, ground):
+    todo = _routes_not_held(routes, src, kind, freq_hz, ground)
+    for (key, fl, x), q, z in zip(todo, *_points_of(todo)):
 
         def keep(part, key=key, fl=fl, x=x):
             _memo(key, lambda: phys.route_emf_from(fl, x, part))
@@ -356,9 +357,19 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
     return out
 
 
+def _points_of(todo) -> tuple[list, list]:
+    """([points], [heights]) of each route of ``todo`` (:func:`_routes_not_held`), worked together
+    (snrgain.physics.feedline.runs_points)."""
+    if not todo:
+        return [], []
+    q, z = phys.runs_points([t[1] for t in todo], [t[2] for t in todo])
+    cut = np.cumsum([len(t[2]) + (0 if t[1].buried else 2 * phys.LEAD_POINTS) for t in todo])[:-1]
+    return np.split(q, cut), np.split(z, cut)
+
+
 def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
-    """[(memo key, route, samples, (points, heights))] of the distinct routes of ``routes`` whose EMFs from a placed
-    source's dipole are not in the memo yet."""
+    """[(memo key, route, samples)] of the distinct routes of ``routes`` whose EMFs from a placed source's dipole are
+    not in the memo yet."""
     todo, seen = [], set()
     for fl in routes:
         key = _route_emf_key(fl, src, kind, freq_hz, ground)
@@ -366,7 +377,7 @@ def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
             continue
         seen.add(key)
         x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
-        todo.append((key, fl, x, phys.route_points(fl, x)))
+        todo.append((key, fl, x))
     return todo
 
 
@@ -377,13 +388,11 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
     todo = _routes_not_held(routes, src, kind, freq_hz, ground)
     if len(todo) < 2:
         return
-    e = placed_field(
-        src, np.concatenate([t[3][0] for t in todo]), np.concatenate([t[3][1] for t in todo]), freq_hz, ground, kind
-    )
-    parts = np.split(e, np.cumsum([len(t[3][0]) for t in todo])[:-1])
-    for (key, fl, x, _), part in zip(todo, parts):
-        # route_emf takes the field once, at route_points of the same samples: the part worked for this route
-        _memo(key, lambda fl=fl, x=x, part=part: phys.route_emf_from(fl, x, part))
+    fls, xs = [t[1] for t in todo], [t[2] for t in todo]
+    e = placed_field(src, *phys.runs_points(fls, xs), freq_hz, ground, kind)
+    # route_emf takes the field once, at route_points of the same samples: each route's part, worked together
+    for (key, _, _), emfs in zip(todo, phys.runs_emf_from(fls, xs, e)):
+        _memo(key, lambda emfs=emfs: emfs)
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:

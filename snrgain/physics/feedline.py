@@ -441,6 +441,50 @@ def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
 
 
+def runs_points(fls, xs) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`route_points` of several runs (``xs`` their samples), concatenated in order: (points (N, 2), heights
+    (N,)); each run's part the same numbers, in one array."""
+    t, _ = gauss_legendre(LEAD_POINTS)
+    sizes = [len(x) + (0 if fl.buried else 2 * LEAD_POINTS) for fl, x in zip(fls, xs)]
+    pts, heights = np.empty((sum(sizes), 2)), np.empty(sum(sizes))
+    i = 0
+    for fl, x, size in zip(fls, xs, sizes):
+        b = fl.bearing_rad
+        n = len(x)
+        run = pts[i : i + n]
+        np.multiply(np.asarray(x, dtype=float)[:, None], np.array([np.sin(b), np.cos(b)])[None, :], out=run)
+        run += np.asarray(fl.start_m, dtype=float)[None, :]
+        heights[i : i + n] = fl.wire_height_m
+        if not fl.buried:
+            zs = (t + 1) * fl.wire_height_m / 2
+            pts[i + n : i + n + LEAD_POINTS] = run[0]
+            pts[i + n + LEAD_POINTS : i + size] = run[-1]
+            heights[i + n : i + n + LEAD_POINTS] = zs
+            heights[i + n + LEAD_POINTS : i + size] = zs
+        i += size
+    return pts, heights
+
+
+def runs_emf_from(fls, xs, e) -> list:
+    """:func:`route_emf_from` of several runs from the field ``e`` at :func:`runs_points`' points: [(x, EMF, lead
+    EMFs)] of each."""
+    _, wq = gauss_legendre(LEAD_POINTS)
+    out = []
+    i = 0
+    for fl, x in zip(fls, xs):
+        b = fl.bearing_rad
+        n = len(x)
+        emf = e[i : i + n, 0] * np.sin(b) + e[i : i + n, 1] * np.cos(b)
+        i += n
+        if fl.buried:
+            out.append((x, emf, np.zeros(2, dtype=complex)))
+            continue
+        lead = (e[i : i + 2 * LEAD_POINTS, 2].reshape(2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
+        i += 2 * LEAD_POINTS
+        out.append((x, emf, lead))
+    return out
+
+
 def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gamma=None, closest_at_m=None):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
