@@ -245,25 +245,31 @@ def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None)
         out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
     fl_powers, effects = {}, {}
     ks = list(out)
+    at = np.array(ks, dtype=int)
     loads = np.array([out[k][1].load_ohm for k in ks])
+    coherent = np.array([out[k][2] for k in ks], dtype=bool)
+    routes, pairs = [fl for fl, _, _ in out.values()], [out[k][:2] for k in ks]
     for src in (s for s in sc.noise.local if s.position_m is not None):
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for kind, _ in placed.dipoles(src):
-            _prefetch_route_emfs([fl for fl, _, _ in out.values()], src, kind, f, ground)
+            _prefetch_route_emfs(routes, src, kind, f, ground)
             # every feed line's amplitude in one port response (a termination search's resistors share one route)
-            currents = _route_currents([out[k][:2] for k in ks], src, kind, f, ground)
-            b_all = port_amplitudes(f, currents, loads)
-            for k, b in zip(ks, b_all):
-                p[k] += abs(b) ** 2
-                if out[k][2]:  # coherent: one source drives both, their currents in the load add as phasors
-                    # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
-                    if own is not None:
-                        a = own[src.name, kind][k]
-                    else:
-                        a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
-                    d[k] += abs(a + b) ** 2 - abs(a) ** 2
-                else:
-                    d[k] += abs(b) ** 2
+            b = port_amplitudes(f, _route_currents(pairs, src, kind, f, ground), loads)
+            power = np.abs(b) ** 2
+            p[at] += power
+            # coherent: one source drives both, their currents in the load add as phasors; the antenna's own as
+            # snrgain.model.placed.pickup worked it out (kept there), or the caller's
+            if own is not None:
+                a = own[src.name, kind][at]
+            else:
+                a = np.array(
+                    [
+                        placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0] if c else 0j
+                        for k, c in zip(ks, coherent)
+                    ],
+                    dtype=complex,
+                )
+            d[at] += np.where(coherent, np.abs(a + b) ** 2 - np.abs(a) ** 2, power)
         fl_powers[src.name], effects[src.name] = p, d
     lines_ = {k: (fl, c) for k, (fl, c, _) in out.items()}
     return Prepared(lines_, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
