@@ -162,7 +162,8 @@ def test_feed_lines_currents_in_one_pass_equal_each_alone():
     want = [feedline._route_current(fl, c, src, "vertical", F_HZ, g) for fl, c in pairs]
     np.testing.assert_allclose(got, want, rtol=1e-12)
     amps = feedline.port_amplitudes(F_HZ, got, [c.load_ohm for _, c in pairs])
-    np.testing.assert_allclose(amps, [feedline.port_amplitude(F_HZ, i, c.load_ohm) for i, (_, c) in zip(got, pairs)])
+    # port_response's arithmetic at the horizon, to the bit
+    np.testing.assert_array_equal(amps, [feedline.port_amplitude(F_HZ, i, c.load_ohm) for i, (_, c) in zip(got, pairs)])
 
 
 def test_feed_lines_runs_worked_together_equal_each_alone():

@@ -411,8 +411,20 @@ def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
 
 def _route_key(fl) -> tuple:
     """What a route's current through a unit coupling depends on besides the source: the run, its cable (the
-    shield's line) and the station's ground."""
-    return (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m, fl.station_ground_ohm)
+    shield's line) and the station's ground (kept on the FeedLine, which is frozen)."""
+    key = fl.__dict__.get("_route_key")
+    if key is None:
+        key = (
+            fl.start_m,
+            fl.end_m,
+            fl.height_m,
+            fl.depth_m,
+            fl.braid_radius_m,
+            fl.jacket_radius_m,
+            fl.station_ground_ohm,
+        )
+        object.__setattr__(fl, "_route_key", key)
+    return key
 
 
 def _route_unit(fl, c, src, kind, freq_hz, ground) -> tuple:
@@ -433,8 +445,8 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
     units: dict = {}
     todo = []  # the routes whose current is not kept: worked together (phys.emf_currents)
     where = _source_key(src, kind, freq_hz, ground)
-    for fl, c in lines_:
-        route = _route_key(fl)
+    routes = [_route_key(fl) for fl, _ in lines_]
+    for (fl, c), route in zip(lines_, routes):
         if route in units:
             continue
         key = ("route-current", route, where)
@@ -449,19 +461,20 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
         for (route, key, _, unit), current in zip(todo, currents):
             units[route] = _memo(key, lambda unit=unit, current=current: (unit, complex(current)))
     out = np.empty(len(lines_), dtype=complex)
-    for j, (fl, c) in enumerate(lines_):
-        unit, current = units[_route_key(fl)]
+    for j, ((_, c), route) in enumerate(zip(lines_, routes)):
+        unit, current = units[route]
         out[j] = current * phys.current_scale(unit, c)
     return out
 
 
 def port_amplitudes(freq_hz: float, currents, loads_ohm) -> np.ndarray:
     """:func:`port_amplitude` of each current [A] (N,) in its load [ohm] (N,)."""
-    from snrgain.antennas.longwire import port_response
+    from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 
-    currents = np.asarray(currents, dtype=complex)
-    return port_response(
-        freq_hz, currents, load_ohm=np.asarray(loads_ohm, dtype=float), elevation_rad=np.zeros(len(currents))
+    # snrgain.antennas.longwire.port_response at the horizon (elevation 0, where it is not zeroed), its arithmetic
+    lam = C_M_PER_S / freq_hz
+    return np.sqrt(4 * np.pi / lam**2 * np.asarray(loads_ohm, dtype=float) * ETA0_OHM * 1.0) * np.asarray(
+        currents, dtype=complex
     )
 
 
@@ -543,9 +556,7 @@ def sky_rows(prep: Prepared) -> tuple[list, dict]:
 def canonical_coupling(c: phys.Coupling) -> phys.Coupling:
     """``c`` with the antenna end shorted (Z_A = 0), a unit divider and a 1 ohm load: the route's own coupling, the
     same for every antenna end on it (what :func:`snrgain.physics.feedline.thevenin_scale` scales from)."""
-    from dataclasses import replace
-
-    return replace(c, z_end=0j, divider=1.0 + 0j, load_ohm=1.0)
+    return phys.Coupling(c.line, c.z_th, 0j, 1.0 + 0j, 1.0)
 
 
 def sky_gain(fl: phys.FeedLine, c: phys.Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:

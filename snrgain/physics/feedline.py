@@ -350,9 +350,7 @@ def thevenin_scale(ref: Coupling, c: Coupling) -> complex:
 
 def unit_coupling(c: Coupling) -> Coupling:
     """``c`` with a unit divider and a 1 ohm load (what :func:`thevenin_scale` scales from)."""
-    from dataclasses import replace
-
-    return replace(c, divider=1.0 + 0j, load_ohm=1.0)
+    return Coupling(c.line, c.z_th, c.z_end, 1.0 + 0j, 1.0)
 
 
 def sky_gain(
