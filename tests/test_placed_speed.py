@@ -143,6 +143,30 @@ def test_pickup_of_a_termination_searchs_resistors_equals_each_alone(pol):
     np.testing.assert_allclose(np.array(kept), np.array(fresh), rtol=1e-12)
 
 
+def test_a_wires_kept_place_before_a_source_gives_the_same_pickup():
+    # placed._PLACES keeps a wire's feeds, direction and samples before a source (the same at every ground and for
+    # every resistor): a pickup with them kept and the EMFs worked anew equals one with nothing kept, to the bit
+    bev = from_si(
+        "beverage", length=200.0, height=2.0, bearing=0.8, ground="moist loam", termination=450.0, position=(40.0, 10.0)
+    )
+    other = from_si("beverage", length=150.0, height=2.0, bearing=2.0, ground="moist loam", position=(-60.0, 30.0))
+    ref = from_si("vertical", height=6.0, ground="moist loam", position=(0.0, 0.0))
+    src = _source((90.0, 70.0), 3.0)
+    ants = [ref, bev, other]
+
+    def powers():
+        p = np.full(len(ants), np.nan)
+        placed._prefetch_wire_emfs(ants, src, F_HZ, (0.0, 0.0), bev.ground, "vertical", p)
+        return [placed.received_power(a, src, F_HZ, (0.0, 0.0), bev.ground) for a in ants]
+
+    forget()
+    cold = powers()
+    assert len(placed._PLACES) == 2
+    placed._EMFS.clear()
+    placed._AMPLITUDES.clear()
+    np.testing.assert_array_equal(powers(), cold)
+
+
 def test_feed_lines_currents_in_one_pass_equal_each_alone():
     # feedline._route_currents (each route's kept current scaled to each coupling) gives _route_current's
     from snrgain.model import feedline

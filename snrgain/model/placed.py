@@ -585,13 +585,8 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
         if geometry in seen:
             continue
         seen.add(geometry)
-        feeds = np.atleast_2d(np.asarray(point, dtype=float))
-        b = a.bearing_rad
-        u = np.array([np.sin(b), np.cos(b)])
-        to_src = np.asarray(src.position_m)[None, :] - feeds
-        along = np.clip(to_src @ u, 0.0, a.length_m)
-        closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
-        x = wire_grid(a, src, freq_hz, float(closest[0]))
+        place = (geometry, _source_key(src, kind), float(freq_hz))
+        feeds, u, x = _PLACES.get(place, lambda a=a, point=point: _wire_place(a, point, src, freq_hz))
         if len(x) >= least:
             continue
         key = _emfs_key(a, src, freq_hz, feeds, ground, x, u, kind, False, least)
@@ -603,6 +598,26 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
     if len(todo) + len(compact) + len(extra) < 2:
         return None
     return _Plan(src, freq_hz, reference_m, ground, kind, todo, compact, extra)
+
+
+_PLACES = Memo(1024)
+"""A long wire's place before a placed source (:func:`_wire_place`), by its geometry, the source and the frequency:
+the same at every ground of a spread and for every resistor a termination search tries."""
+
+
+def _wire_place(a, point, src, freq_hz: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(feeds (1, 2), unit vector along the wire, its samples :func:`wire_grid`) of a long wire standing at ``point``
+    before a placed source (read-only arrays)."""
+    feeds = np.atleast_2d(np.asarray(point, dtype=float))
+    b = a.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    to_src = np.asarray(src.position_m)[None, :] - feeds
+    along = np.clip(to_src @ u, 0.0, a.length_m)
+    closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
+    x = wire_grid(a, src, freq_hz, float(closest[0]))
+    for v in (feeds, u):
+        v.flags.writeable = False
+    return feeds, u, x
 
 
 def _prefetch_keep(plan: _Plan, e: np.ndarray) -> None:
