@@ -238,11 +238,14 @@ def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None)
     ground = sc.site.ground if ground is None else ground
     f = sc.freq_hz
     ref_m = antennas[0].params.position or (0.0, 0.0)
-    out = {}
+    out, z_th = {}, {}
     for k, fl in _routes(sc, antennas).items():
         a = antennas[k]
         end, _, _ = antenna_end(a, f, ground)
-        out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
+        route = _route_key(fl)  # a termination search's resistors: one route, its Z_th worked once
+        if route not in z_th:
+            z_th[route] = phys.thevenin_impedance(fl, f, ground)
+        out[k] = (fl, phys.coupling_at(fl, f, ground, end, z_th=z_th[route]), end.coherent)
     fl_powers, effects = {}, {}
     ks = list(out)
     at = np.array(ks, dtype=int)

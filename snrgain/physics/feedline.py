@@ -293,12 +293,21 @@ def coupling(fl: FeedLine, freq_hz: float, ground, *, rod_ohm: float, loop_ohm: 
     return coupling_at(fl, freq_hz, ground, grounded_end(rod_ohm=rod_ohm, loop_ohm=loop_ohm, load_ohm=load_ohm))
 
 
-def coupling_at(fl: FeedLine, freq_hz: float, ground, end: End) -> Coupling:
-    """The antenna end's circuit for any :class:`End` (:func:`grounded_end`, :func:`floating_end`)."""
+def coupling_at(fl: FeedLine, freq_hz: float, ground, end: End, *, z_th: complex | None = None) -> Coupling:
+    """The antenna end's circuit for any :class:`End` (:func:`grounded_end`, :func:`floating_end`); ``z_th`` the
+    route's own Z_th where the caller has it (:func:`thevenin_impedance`: the same for every end on the route)."""
     ln = fl.line(freq_hz, ground)
-    z_th = lines.input_impedance(ln, length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
+    if z_th is None:
+        z_th = thevenin_impedance(fl, freq_hz, ground)
     z_end = fl.isolation_ohm(freq_hz) + end.z_cm
     return Coupling(ln, complex(z_th), complex(z_end), complex(end.divider), float(end.load_ohm))
+
+
+def thevenin_impedance(fl: FeedLine, freq_hz: float, ground) -> complex:
+    """Z_th: the shield line's input impedance toward the station (its far end in the station ground) [ohm]."""
+    return complex(
+        lines.input_impedance(fl.line(freq_hz, ground), length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
+    )
 
 
 def choke_for_ratio(fl: FeedLine, c: Coupling, freq_hz: float, reduction: float) -> float:
