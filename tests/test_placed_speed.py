@@ -167,6 +167,18 @@ def test_a_wires_kept_place_before_a_source_gives_the_same_pickup():
     np.testing.assert_array_equal(powers(), cold)
 
 
+def test_a_sources_key_is_kept_only_for_a_frozen_source():
+    from types import SimpleNamespace
+
+    src = _source((90.0, 70.0), 3.0)
+    assert placed._source_key(src, "vertical") is placed._source_key(src, "vertical")
+    assert placed._source_key(src, "vertical") == placed._source_key_worked(src, "vertical")
+    loose = SimpleNamespace(position_m=(1.0, 2.0), height_m=3.0, polarisation="vertical", orientation_rad=None)
+    first = placed._source_key(loose, "vertical")
+    loose.height_m = 5.0  # a source that may change is read afresh
+    assert placed._source_key(loose, "vertical") != first
+
+
 def test_feed_lines_currents_in_one_pass_equal_each_alone():
     # feedline._route_currents (each route's kept current scaled to each coupling) gives _route_current's
     from snrgain.model import feedline
