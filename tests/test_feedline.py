@@ -339,6 +339,22 @@ def test_the_sky_gain_with_its_runs_phase_kept_across_grounds_is_the_sky_respons
             np.testing.assert_allclose(got, want, rtol=1e-12, atol=0)
 
 
+def test_a_sets_directions_key_is_kept_only_for_arrays_that_can_not_change():
+    from snrgain.model import feedline
+
+    az, el = np.linspace(0.0, 6.0, 50).copy(), np.linspace(0.0, 1.5, 50).copy()
+    loose = feedline._directions_key(az, el)
+    az[3] += 0.1  # a writeable array is hashed afresh
+    assert feedline._directions_key(az, el) != loose
+    az.flags.writeable = False
+    el.flags.writeable = False
+    kept = feedline._directions_key(az, el)
+    assert kept == (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    assert feedline._directions_key(az, el) is kept
+    view = az[::2]  # a view is hashed afresh
+    assert feedline._directions_key(view, el[::2]) == (view.shape, hash(view.tobytes()), hash(el[::2].tobytes()))
+
+
 def test_shield_line_is_the_wire_over_ground_line():
     # The shield's line is snrgain.physics.lines' wire over the ground at its height and jacket radius; buried, the
     # insulated wire in the soil (slower and lossier).

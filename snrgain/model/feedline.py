@@ -577,7 +577,7 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
     (:func:`canonical_coupling`), kept by route, ground and directions."""
     az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
     g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
-    where = (float(freq_hz), az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    where = (float(freq_hz), *_directions_key(az, el))
     key = ("sky", _route_key(fl), g, *where)
 
     def make():
@@ -585,6 +585,22 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
         return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=phase)
 
     return _memo(key, make)
+
+
+def _directions_key(az: np.ndarray, el: np.ndarray) -> tuple:
+    """(shape, hash of the azimuths' bytes, of the elevations') of a set of directions: kept by the arrays themselves
+    where they can not change (read-only arrays that own their data: a sky's directions, asked for again at every
+    ground and pass), held with them so their ids stay their own."""
+
+    def worked():
+        return (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+
+    if any(a.flags.writeable or not a.flags.owndata for a in (az, el)):
+        return worked()
+    return _DIRECTIONS.get((id(az), id(el)), lambda: (az, el, worked()))[2]
+
+
+_DIRECTIONS = Memo(64)
 
 
 _PHASES = Memo(64, max_bytes=64 * 2**20)
