@@ -315,6 +315,46 @@ def test_the_memoised_sky_pattern_scaled_by_thevenin_is_the_pattern_worked_anew(
         np.testing.assert_allclose(feedline.sky_gain(fl, c, F, az, el, GROUND), direct, rtol=1e-9)
 
 
+def test_the_sky_gain_with_its_runs_phase_kept_across_grounds_is_the_sky_responses_power():
+    # a run's phase along it (snrgain.physics.feedline.sky_phase) does not depend on the ground or the cable: kept
+    # from one ground and taken on another, raised or buried, the gain is |e_v|^2 + |e_h|^2 of sky_response there,
+    # below the horizon too
+    from snrgain.antennas.longwire import plane_wave
+    from snrgain.model import feedline
+
+    az = np.radians(np.arange(0.0, 360.0, 7.5))
+    el = np.radians(np.linspace(-5.0, 89.0, az.size))
+    other = Ground(0.02, 30.0, "wet")
+    rod, loop, load = antenna_loads(_beverage(), F)
+    for fl in (_shield(), phys.FeedLine((0.0, 0.0), (-30.0, -80.0), None, 0.0027, 0.0035, 25.0)):
+        phase = phys.sky_phase(fl, F, plane_wave(F, az, el, bearing_rad=fl.bearing_rad, ground=GROUND))
+        for g in (GROUND, other):
+            c = phys.coupling(fl, F, g, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+            ev, eh = phys.sky_response(fl, c, F, az, el, g)
+            want = np.abs(ev) ** 2 + np.abs(eh) ** 2
+            np.testing.assert_allclose(phys.sky_gain(fl, c, F, az, el, g, phase=phase), want, rtol=1e-13, atol=0)
+            np.testing.assert_allclose(phys.sky_gain(fl, c, F, az, el, g), want, rtol=1e-13, atol=0)
+            assert np.all(want[el < 0] == 0)
+            got = feedline.sky_gain(fl, c, F, az, el, g)  # the model's, its phase kept by the run
+            np.testing.assert_allclose(got, want, rtol=1e-12, atol=0)
+
+
+def test_a_sets_directions_key_is_kept_only_for_arrays_that_can_not_change():
+    from snrgain.model import feedline
+
+    az, el = np.linspace(0.0, 6.0, 50).copy(), np.linspace(0.0, 1.5, 50).copy()
+    loose = feedline._directions_key(az, el)
+    az[3] += 0.1  # a writeable array is hashed afresh
+    assert feedline._directions_key(az, el) != loose
+    az.flags.writeable = False
+    el.flags.writeable = False
+    kept = feedline._directions_key(az, el)
+    assert kept == (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+    assert feedline._directions_key(az, el) is kept
+    view = az[::2]  # a view is hashed afresh
+    assert feedline._directions_key(view, el[::2]) == (view.shape, hash(view.tobytes()), hash(el[::2].tobytes()))
+
+
 def test_shield_line_is_the_wire_over_ground_line():
     # The shield's line is snrgain.physics.lines' wire over the ground at its height and jacket radius; buried, the
     # insulated wire in the soil (slower and lossier).

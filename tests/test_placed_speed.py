@@ -143,6 +143,42 @@ def test_pickup_of_a_termination_searchs_resistors_equals_each_alone(pol):
     np.testing.assert_allclose(np.array(kept), np.array(fresh), rtol=1e-12)
 
 
+def test_a_wires_kept_place_before_a_source_gives_the_same_pickup():
+    # placed._PLACES keeps a wire's feeds, direction and samples before a source (the same at every ground and for
+    # every resistor): a pickup with them kept and the EMFs worked anew equals one with nothing kept, to the bit
+    bev = from_si(
+        "beverage", length=200.0, height=2.0, bearing=0.8, ground="moist loam", termination=450.0, position=(40.0, 10.0)
+    )
+    other = from_si("beverage", length=150.0, height=2.0, bearing=2.0, ground="moist loam", position=(-60.0, 30.0))
+    ref = from_si("vertical", height=6.0, ground="moist loam", position=(0.0, 0.0))
+    src = _source((90.0, 70.0), 3.0)
+    ants = [ref, bev, other]
+
+    def powers():
+        p = np.full(len(ants), np.nan)
+        placed._prefetch_wire_emfs(ants, src, F_HZ, (0.0, 0.0), bev.ground, "vertical", p)
+        return [placed.received_power(a, src, F_HZ, (0.0, 0.0), bev.ground) for a in ants]
+
+    forget()
+    cold = powers()
+    assert len(placed._PLACES) == 2
+    placed._EMFS.clear()
+    placed._AMPLITUDES.clear()
+    np.testing.assert_array_equal(powers(), cold)
+
+
+def test_a_sources_key_is_kept_only_for_a_frozen_source():
+    from types import SimpleNamespace
+
+    src = _source((90.0, 70.0), 3.0)
+    assert placed._source_key(src, "vertical") is placed._source_key(src, "vertical")
+    assert placed._source_key(src, "vertical") == placed._source_key_worked(src, "vertical")
+    loose = SimpleNamespace(position_m=(1.0, 2.0), height_m=3.0, polarisation="vertical", orientation_rad=None)
+    first = placed._source_key(loose, "vertical")
+    loose.height_m = 5.0  # a source that may change is read afresh
+    assert placed._source_key(loose, "vertical") != first
+
+
 def test_feed_lines_currents_in_one_pass_equal_each_alone():
     # feedline._route_currents (each route's kept current scaled to each coupling) gives _route_current's
     from snrgain.model import feedline
@@ -162,7 +198,47 @@ def test_feed_lines_currents_in_one_pass_equal_each_alone():
     want = [feedline._route_current(fl, c, src, "vertical", F_HZ, g) for fl, c in pairs]
     np.testing.assert_allclose(got, want, rtol=1e-12)
     amps = feedline.port_amplitudes(F_HZ, got, [c.load_ohm for _, c in pairs])
-    np.testing.assert_allclose(amps, [feedline.port_amplitude(F_HZ, i, c.load_ohm) for i, (_, c) in zip(got, pairs)])
+    # port_response's arithmetic at the horizon, to the bit
+    np.testing.assert_array_equal(amps, [feedline.port_amplitude(F_HZ, i, c.load_ohm) for i, (_, c) in zip(got, pairs)])
+
+
+def test_feed_lines_runs_worked_together_equal_each_alone():
+    # phys.emf_currents (every run's samples in one pass) gives emf_current's current of each run: raised, buried,
+    # choked, on other samples
+    from snrgain.model import feedline
+
+    g = from_si("beverage", length=200.0, height=2.0, bearing=0.0, ground="moist loam").ground
+    runs = [
+        phys.FeedLine((0.0, 0.0), (0.0, -120.0), 1.0, 0.0027, 0.0035, 25.0),
+        phys.FeedLine((5.0, 3.0), (40.0, -90.0), None, 0.0027, 0.0035, 40.0),
+        phys.FeedLine((-20.0, 10.0), (60.0, 60.0), 2.0, 0.0027, 0.0035, 10.0, choke_ohm=900.0),
+    ]
+    for src in (_source((10.0, -60.0), 1.0), _source((30.0, 20.0), 4.0, "horizontal", 30.0)):
+        for kind, _ in placed.dipoles(src):
+            cs = [phys.coupling(fl, F_HZ, g, rod_ohm=30.0, loop_ohm=800 - 90j, load_ohm=400.0) for fl in runs]
+            emfs = [feedline._route_emf(fl, src, kind, F_HZ, g) for fl in runs]
+            want = [phys.emf_current(fl, c, *e) for fl, c, e in zip(runs, cs, emfs)]
+            np.testing.assert_allclose(phys.emf_currents(runs, cs, emfs), want, rtol=1e-12)
+            np.testing.assert_array_equal(phys.emf_currents(runs[:1], cs[:1], emfs[:1]), want[:1])
+
+
+def test_runs_points_and_emfs_worked_together_are_each_runs_to_the_bit():
+    runs = [
+        phys.FeedLine((0.0, 0.0), (0.0, -120.0), 1.0, 0.0027, 0.0035, 25.0),
+        phys.FeedLine((5.0, 3.0), (40.0, -90.0), None, 0.0027, 0.0035, 40.0),
+        phys.FeedLine((-20.0, 10.0), (60.0, 60.0), 2.0, 0.0027, 0.0035, 10.0),
+    ]
+    xs = [phys.route_samples(fl, F_HZ, 15.0, None, 0.3 * fl.length_m) for fl in runs]
+    q, z = phys.runs_points(runs, xs)
+    alone = [phys.route_points(fl, x) for fl, x in zip(runs, xs)]
+    np.testing.assert_array_equal(q, np.concatenate([a[0] for a in alone]))
+    np.testing.assert_array_equal(z, np.concatenate([a[1] for a in alone]))
+    rng = np.random.default_rng(3)
+    e = rng.normal(size=(len(q), 3)) + 1j * rng.normal(size=(len(q), 3))
+    parts = np.split(e, np.cumsum([len(a[0]) for a in alone])[:-1])
+    for got, fl, x, part in zip(phys.runs_emf_from(runs, xs, e), runs, xs, parts):
+        for a, b in zip(got, phys.route_emf_from(fl, x, part)):
+            np.testing.assert_array_equal(a, b)
 
 
 def test_the_near_fields_kept_geometry_gives_the_field_worked_afresh():

@@ -238,32 +238,41 @@ def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None)
     ground = sc.site.ground if ground is None else ground
     f = sc.freq_hz
     ref_m = antennas[0].params.position or (0.0, 0.0)
-    out = {}
+    out, z_th = {}, {}
     for k, fl in _routes(sc, antennas).items():
         a = antennas[k]
         end, _, _ = antenna_end(a, f, ground)
-        out[k] = (fl, phys.coupling_at(fl, f, ground, end), end.coherent)
+        route = _route_key(fl)  # a termination search's resistors: one route, its Z_th worked once
+        if route not in z_th:
+            z_th[route] = phys.thevenin_impedance(fl, f, ground)
+        out[k] = (fl, phys.coupling_at(fl, f, ground, end, z_th=z_th[route]), end.coherent)
     fl_powers, effects = {}, {}
     ks = list(out)
+    at = np.array(ks, dtype=int)
     loads = np.array([out[k][1].load_ohm for k in ks])
+    coherent = np.array([out[k][2] for k in ks], dtype=bool)
+    routes, pairs = [fl for fl, _, _ in out.values()], [out[k][:2] for k in ks]
     for src in (s for s in sc.noise.local if s.position_m is not None):
         p, d = np.zeros(len(antennas)), np.zeros(len(antennas))
         for kind, _ in placed.dipoles(src):
-            _prefetch_route_emfs([fl for fl, _, _ in out.values()], src, kind, f, ground)
+            _prefetch_route_emfs(routes, src, kind, f, ground)
             # every feed line's amplitude in one port response (a termination search's resistors share one route)
-            currents = _route_currents([out[k][:2] for k in ks], src, kind, f, ground)
-            b_all = port_amplitudes(f, currents, loads)
-            for k, b in zip(ks, b_all):
-                p[k] += abs(b) ** 2
-                if out[k][2]:  # coherent: one source drives both, their currents in the load add as phasors
-                    # the antenna's own, as snrgain.model.placed.pickup worked it out (kept there)
-                    if own is not None:
-                        a = own[src.name, kind][k]
-                    else:
-                        a = placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0]
-                    d[k] += abs(a + b) ** 2 - abs(a) ** 2
-                else:
-                    d[k] += abs(b) ** 2
+            b = port_amplitudes(f, _route_currents(pairs, src, kind, f, ground), loads)
+            power = np.abs(b) ** 2
+            p[at] += power
+            # coherent: one source drives both, their currents in the load add as phasors; the antenna's own as
+            # snrgain.model.placed.pickup worked it out (kept there), or the caller's
+            if own is not None:
+                a = own[src.name, kind][at]
+            else:
+                a = np.array(
+                    [
+                        placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0] if c else 0j
+                        for k, c in zip(ks, coherent)
+                    ],
+                    dtype=complex,
+                )
+            d[at] += np.where(coherent, np.abs(a + b) ** 2 - np.abs(a) ** 2, power)
         fl_powers[src.name], effects[src.name] = p, d
     lines_ = {k: (fl, c) for k, (fl, c, _) in out.items()}
     return Prepared(lines_, fl_powers, effects, {n: float(p[0]) for n, p in powers.items()}, ground)
@@ -347,7 +356,8 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
     except ValueError:
         return []
     out = []
-    for key, fl, x, (q, z) in _routes_not_held(routes, src, kind, freq_hz, ground):
+    todo = _routes_not_held(routes, src, kind, freq_hz, ground)
+    for (key, fl, x), q, z in zip(todo, *_points_of(todo)):
 
         def keep(part, key=key, fl=fl, x=x):
             _memo(key, lambda: phys.route_emf_from(fl, x, part))
@@ -356,9 +366,19 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
     return out
 
 
+def _points_of(todo) -> tuple[list, list]:
+    """([points], [heights]) of each route of ``todo`` (:func:`_routes_not_held`), worked together
+    (snrgain.physics.feedline.runs_points)."""
+    if not todo:
+        return [], []
+    q, z = phys.runs_points([t[1] for t in todo], [t[2] for t in todo])
+    cut = np.cumsum([len(t[2]) + (0 if t[1].buried else 2 * phys.LEAD_POINTS) for t in todo])[:-1]
+    return np.split(q, cut), np.split(z, cut)
+
+
 def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
-    """[(memo key, route, samples, (points, heights))] of the distinct routes of ``routes`` whose EMFs from a placed
-    source's dipole are not in the memo yet."""
+    """[(memo key, route, samples)] of the distinct routes of ``routes`` whose EMFs from a placed source's dipole are
+    not in the memo yet."""
     todo, seen = [], set()
     for fl in routes:
         key = _route_emf_key(fl, src, kind, freq_hz, ground)
@@ -366,7 +386,7 @@ def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
             continue
         seen.add(key)
         x = phys.route_samples(fl, freq_hz, _closest(fl, src), _gamma(fl, freq_hz, ground), _closest_at(fl, src))
-        todo.append((key, fl, x, phys.route_points(fl, x)))
+        todo.append((key, fl, x))
     return todo
 
 
@@ -377,13 +397,11 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
     todo = _routes_not_held(routes, src, kind, freq_hz, ground)
     if len(todo) < 2:
         return
-    e = placed_field(
-        src, np.concatenate([t[3][0] for t in todo]), np.concatenate([t[3][1] for t in todo]), freq_hz, ground, kind
-    )
-    parts = np.split(e, np.cumsum([len(t[3][0]) for t in todo])[:-1])
-    for (key, fl, x, _), part in zip(todo, parts):
-        # route_emf takes the field once, at route_points of the same samples: the part worked for this route
-        _memo(key, lambda fl=fl, x=x, part=part: phys.route_emf_from(fl, x, part))
+    fls, xs = [t[1] for t in todo], [t[2] for t in todo]
+    e = placed_field(src, *phys.runs_points(fls, xs), freq_hz, ground, kind)
+    # route_emf takes the field once, at route_points of the same samples: each route's part, worked together
+    for (key, _, _), emfs in zip(todo, phys.runs_emf_from(fls, xs, e)):
+        _memo(key, lambda emfs=emfs: emfs)
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
@@ -396,8 +414,20 @@ def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
 
 def _route_key(fl) -> tuple:
     """What a route's current through a unit coupling depends on besides the source: the run, its cable (the
-    shield's line) and the station's ground."""
-    return (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m, fl.station_ground_ohm)
+    shield's line) and the station's ground (kept on the FeedLine, which is frozen)."""
+    key = fl.__dict__.get("_route_key")
+    if key is None:
+        key = (
+            fl.start_m,
+            fl.end_m,
+            fl.height_m,
+            fl.depth_m,
+            fl.braid_radius_m,
+            fl.jacket_radius_m,
+            fl.station_ground_ohm,
+        )
+        object.__setattr__(fl, "_route_key", key)
+    return key
 
 
 def _route_unit(fl, c, src, kind, freq_hz, ground) -> tuple:
@@ -416,11 +446,25 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
     """:func:`_route_current` of each (FeedLine, Coupling) of ``lines_``: (N,), each route's kept current looked up
     once however many couplings share it (a termination search's resistors)."""
     units: dict = {}
+    todo = []  # the routes whose current is not kept: worked together (phys.emf_currents)
+    where = _source_key(src, kind, freq_hz, ground)
+    routes = [_route_key(fl) for fl, _ in lines_]
+    for (fl, c), route in zip(lines_, routes):
+        if route in units:
+            continue
+        key = ("route-current", route, where)
+        if key in _MEMO:
+            units[route] = _MEMO.get(key, None)
+        else:
+            units[route] = None
+            todo.append((route, key, fl, phys.unit_coupling(c)))
+    if todo:
+        emfs = [_route_emf(fl, src, kind, freq_hz, ground) for _, _, fl, _ in todo]
+        currents = phys.emf_currents([t[2] for t in todo], [t[3] for t in todo], emfs)
+        for (route, key, _, unit), current in zip(todo, currents):
+            units[route] = _memo(key, lambda unit=unit, current=current: (unit, complex(current)))
     out = np.empty(len(lines_), dtype=complex)
-    for j, (fl, c) in enumerate(lines_):
-        route = _route_key(fl)
-        if route not in units:
-            units[route] = _route_unit(fl, c, src, kind, freq_hz, ground)
+    for j, ((_, c), route) in enumerate(zip(lines_, routes)):
         unit, current = units[route]
         out[j] = current * phys.current_scale(unit, c)
     return out
@@ -428,11 +472,12 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
 
 def port_amplitudes(freq_hz: float, currents, loads_ohm) -> np.ndarray:
     """:func:`port_amplitude` of each current [A] (N,) in its load [ohm] (N,)."""
-    from snrgain.antennas.longwire import port_response
+    from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 
-    currents = np.asarray(currents, dtype=complex)
-    return port_response(
-        freq_hz, currents, load_ohm=np.asarray(loads_ohm, dtype=float), elevation_rad=np.zeros(len(currents))
+    # snrgain.antennas.longwire.port_response at the horizon (elevation 0, where it is not zeroed), its arithmetic
+    lam = C_M_PER_S / freq_hz
+    return np.sqrt(4 * np.pi / lam**2 * np.asarray(loads_ohm, dtype=float) * ETA0_OHM * 1.0) * np.asarray(
+        currents, dtype=complex
     )
 
 
@@ -514,9 +559,7 @@ def sky_rows(prep: Prepared) -> tuple[list, dict]:
 def canonical_coupling(c: phys.Coupling) -> phys.Coupling:
     """``c`` with the antenna end shorted (Z_A = 0), a unit divider and a 1 ohm load: the route's own coupling, the
     same for every antenna end on it (what :func:`snrgain.physics.feedline.thevenin_scale` scales from)."""
-    from dataclasses import replace
-
-    return replace(c, z_end=0j, divider=1.0 + 0j, load_ohm=1.0)
+    return phys.Coupling(c.line, c.z_th, 0j, 1.0 + 0j, 1.0)
 
 
 def sky_gain(fl: phys.FeedLine, c: phys.Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
@@ -534,8 +577,41 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
     (:func:`canonical_coupling`), kept by route, ground and directions."""
     az, el = np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
     g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
-    key = ("sky", _route_key(fl), float(freq_hz), g, az.shape, hash(az.tobytes()), hash(el.tobytes()))
-    return _memo(key, lambda: phys.sky_gain(fl, unit, freq_hz, az, el, ground))
+    where = (float(freq_hz), *_directions_key(az, el))
+    key = ("sky", _route_key(fl), g, *where)
+
+    def make():
+        phase = _PHASES.get((fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground))
+        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=phase)
+
+    return _memo(key, make)
+
+
+def _directions_key(az: np.ndarray, el: np.ndarray) -> tuple:
+    """(shape, hash of the azimuths' bytes, of the elevations') of a set of directions: kept by the arrays themselves
+    where they can not change (read-only arrays that own their data: a sky's directions, asked for again at every
+    ground and pass), held with them so their ids stay their own."""
+
+    def worked():
+        return (az.shape, hash(az.tobytes()), hash(el.tobytes()))
+
+    if any(a.flags.writeable or not a.flags.owndata for a in (az, el)):
+        return worked()
+    return _DIRECTIONS.get((id(az), id(el)), lambda: (az, el, worked()))[2]
+
+
+_DIRECTIONS = Memo(64)
+
+
+_PHASES = Memo(64, max_bytes=64 * 2**20)
+"""A run's :func:`snrgain.physics.feedline.sky_phase` on a set of directions, by its ends, the frequency and the
+directions: the same over every ground (a spread's nodes) and cable."""
+
+
+def _sky_phase(fl, freq_hz, az, el, ground):
+    from snrgain.antennas.longwire import plane_wave
+
+    return phys.sky_phase(fl, freq_hz, plane_wave(freq_hz, az, el, bearing_rad=fl.bearing_rad, ground=ground))
 
 
 def no_pickup(prep: Prepared) -> dict:

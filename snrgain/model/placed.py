@@ -585,13 +585,8 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
         if geometry in seen:
             continue
         seen.add(geometry)
-        feeds = np.atleast_2d(np.asarray(point, dtype=float))
-        b = a.bearing_rad
-        u = np.array([np.sin(b), np.cos(b)])
-        to_src = np.asarray(src.position_m)[None, :] - feeds
-        along = np.clip(to_src @ u, 0.0, a.length_m)
-        closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
-        x = wire_grid(a, src, freq_hz, float(closest[0]))
+        place = (geometry, _source_key(src, kind), float(freq_hz))
+        feeds, u, x = _PLACES.get(place, lambda a=a, point=point: _wire_place(a, point, src, freq_hz))
         if len(x) >= least:
             continue
         key = _emfs_key(a, src, freq_hz, feeds, ground, x, u, kind, False, least)
@@ -603,6 +598,40 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
     if len(todo) + len(compact) + len(extra) < 2:
         return None
     return _Plan(src, freq_hz, reference_m, ground, kind, todo, compact, extra)
+
+
+def _variants_place(first, src, freq_hz: float, reference_m) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(feeds (1, 2), unit vector, samples) of the wires :func:`_load_variant_powers` hears together before a source
+    (kept in :data:`_PLACES` by their group: the same for every resistor and ground; read-only arrays)."""
+    feeds = np.atleast_2d(antenna_point(first, reference_m))
+    b = first.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    to_src = np.asarray(src.position_m) - feeds[0]
+    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, first.length_m) * u)))
+    x = wire_grid(first, src, freq_hz, closest)
+    for v in (feeds, u):
+        v.flags.writeable = False
+    return feeds, u, x
+
+
+_PLACES = Memo(1024)
+"""A long wire's place before a placed source (:func:`_wire_place`), by its geometry, the source and the frequency:
+the same at every ground of a spread and for every resistor a termination search tries."""
+
+
+def _wire_place(a, point, src, freq_hz: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(feeds (1, 2), unit vector along the wire, its samples :func:`wire_grid`) of a long wire standing at ``point``
+    before a placed source (read-only arrays)."""
+    feeds = np.atleast_2d(np.asarray(point, dtype=float))
+    b = a.bearing_rad
+    u = np.array([np.sin(b), np.cos(b)])
+    to_src = np.asarray(src.position_m)[None, :] - feeds
+    along = np.clip(to_src @ u, 0.0, a.length_m)
+    closest = np.hypot(*(to_src - along[:, None] * u[None, :]).T)
+    x = wire_grid(a, src, freq_hz, float(closest[0]))
+    for v in (feeds, u):
+        v.flags.writeable = False
+    return feeds, u, x
 
 
 def _prefetch_keep(plan: _Plan, e: np.ndarray) -> None:
@@ -652,7 +681,18 @@ def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: st
 
 
 def _source_key(src, kind: str) -> tuple:
-    """What a placed source's field depends on (its level aside): place, height, polarisation, axis; and the dipole."""
+    """What a placed source's field depends on (its level aside): place, height, polarisation, axis; and the dipole
+    (kept by the source object, which is frozen, and held with it so its id stays its own)."""
+    params = getattr(type(src), "__dataclass_params__", None)
+    if params is None or not params.frozen:  # a source that may change: worked afresh
+        return _source_key_worked(src, kind)
+    return _SOURCE_KEYS.get((id(src), kind), lambda: (src, _source_key_worked(src, kind)))[1]
+
+
+_SOURCE_KEYS = Memo(256)
+
+
+def _source_key_worked(src, kind: str) -> tuple:
     axis = getattr(src, "orientation_rad", None)
     return (
         tuple(float(c) for c in src.position_m),
@@ -1270,15 +1310,11 @@ def _load_variant_powers(antennas, src, freq_hz: float, reference_m, ground, p: 
             complex(ln.z0),
         )
         groups.setdefault(key, []).append(k)
-    for ks in (ks for ks in groups.values() if len(ks) > 1):
+    for group, ks in ((g, ks) for g, ks in groups.items() if len(ks) > 1):
         wires = [antennas[k] for k in ks]
         first = wires[0]
-        feeds = np.atleast_2d(antenna_point(first, reference_m))
-        b = first.bearing_rad
-        u = np.array([np.sin(b), np.cos(b)])
-        to_src = np.asarray(src.position_m) - feeds[0]
-        closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, first.length_m) * u)))
-        x = wire_grid(first, src, freq_hz, closest)
+        where = ("variants", group, _source_key(src, None), float(freq_hz))
+        feeds, u, x = _PLACES.get(where, lambda first=first: _variants_place(first, src, freq_hz, reference_m))
         loads = np.array([w.receiver_load_ohm(freq_hz) for w in wires])
         el = np.full(len(wires), src.elevation_rad)
         total = np.zeros(len(wires))

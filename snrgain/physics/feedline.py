@@ -94,6 +94,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from snrgain.physics import lines
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 from snrgain.physics.quadrature import even_samples, gauss_legendre
 from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
 
@@ -292,12 +293,21 @@ def coupling(fl: FeedLine, freq_hz: float, ground, *, rod_ohm: float, loop_ohm: 
     return coupling_at(fl, freq_hz, ground, grounded_end(rod_ohm=rod_ohm, loop_ohm=loop_ohm, load_ohm=load_ohm))
 
 
-def coupling_at(fl: FeedLine, freq_hz: float, ground, end: End) -> Coupling:
-    """The antenna end's circuit for any :class:`End` (:func:`grounded_end`, :func:`floating_end`)."""
+def coupling_at(fl: FeedLine, freq_hz: float, ground, end: End, *, z_th: complex | None = None) -> Coupling:
+    """The antenna end's circuit for any :class:`End` (:func:`grounded_end`, :func:`floating_end`); ``z_th`` the
+    route's own Z_th where the caller has it (:func:`thevenin_impedance`: the same for every end on the route)."""
     ln = fl.line(freq_hz, ground)
-    z_th = lines.input_impedance(ln, length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
+    if z_th is None:
+        z_th = thevenin_impedance(fl, freq_hz, ground)
     z_end = fl.isolation_ohm(freq_hz) + end.z_cm
     return Coupling(ln, complex(z_th), complex(z_end), complex(end.divider), float(end.load_ohm))
+
+
+def thevenin_impedance(fl: FeedLine, freq_hz: float, ground) -> complex:
+    """Z_th: the shield line's input impedance toward the station (its far end in the station ground) [ohm]."""
+    return complex(
+        lines.input_impedance(fl.line(freq_hz, ground), length_m=fl.length_m, load_ohm=fl.station_ground_ohm)
+    )
 
 
 def choke_for_ratio(fl: FeedLine, c: Coupling, freq_hz: float, reduction: float) -> float:
@@ -349,15 +359,68 @@ def thevenin_scale(ref: Coupling, c: Coupling) -> complex:
 
 def unit_coupling(c: Coupling) -> Coupling:
     """``c`` with a unit divider and a 1 ohm load (what :func:`thevenin_scale` scales from)."""
-    from dataclasses import replace
-
-    return replace(c, divider=1.0 + 0j, load_ohm=1.0)
+    return Coupling(c.line, c.z_th, c.z_end, 1.0 + 0j, 1.0)
 
 
-def sky_gain(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground) -> np.ndarray:
-    """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon."""
-    ev, eh = sky_response(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
-    return np.abs(ev) ** 2 + np.abs(eh) ** 2
+def sky_gain(
+    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, *, phase=None
+) -> np.ndarray:
+    """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon.
+    ``phase``: the run's :func:`sky_phase` on these directions where the caller keeps it (it does not depend on the
+    ground or the line: a ground spread's nodes take one).  :func:`sky_response`'s arithmetic up to the currents,
+    their powers then taken without the complex responses (equal to rounding)."""
+    from snrgain.antennas.longwire import (
+        _power,
+        above_horizon,
+        field_along_wire,
+        line_currents,
+        plane_wave,
+        vertical_emf,
+    )
+
+    w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    jkc, phase_l = sky_phase(fl, freq_hz, w) if phase is None else phase
+    f_v, f_h = field_along_wire(w, fl.wire_height_m)
+    lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
+    (i_v, i_h), _ = line_currents(
+        w,
+        line=c.line,
+        length_m=fl.length_m,
+        z_feed=c.z_end,
+        z_far=fl.station_ground_ohm,
+        drive_v=-w.cos_dphi * f_v[w.inv],
+        drive_h=-w.sin_dphi * f_h[w.inv],
+        v_end=lead,
+        integrals=_line_integrals(c.line.gamma, fl.length_m, jkc, phase_l),
+    )
+    # the port response's |scale (-I divider)|^2 for both polarisations (snrgain.antennas.longwire.port_response)
+    lam = C_M_PER_S / freq_hz
+    scale2 = 4 * np.pi / lam**2 * c.load_ohm * ETA0_OHM * abs(c.divider) ** 2
+    return np.where(above_horizon(w.el), scale2 * (_power(i_v) + _power(i_h)), 0.0)
+
+
+def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarray]:
+    """(j k c, e^{j k c L}) of the run on a plane wave's directions (``wave``: snrgain.antennas.longwire.plane_wave
+    with the run's bearing; c the wave's slowness along the run): the one transcendental per direction of the
+    line's integrals, the same over every ground and line (:func:`sky_gain` takes it kept)."""
+    jkc = 1j * wave.k * wave.along
+    return jkc, np.exp((1j * wave.k * fl.length_m) * wave.along)
+
+
+def _line_integrals(g: complex, L: float, jkc, phase_l):
+    """snrgain.antennas.longwire.line_integrals from the run's :func:`sky_phase` (the same arithmetic)."""
+    from snrgain.antennas.longwire import safe_expint
+
+    e2 = np.exp(-2 * g * L)
+    eg = np.exp(-g * L)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    decay = phase_l * eg
+    if g.real > 0:
+        j_plus = (decay - 1.0) / (jkc - g)
+    else:
+        j_plus = safe_expint(jkc - g, L)
+    j_minus = (decay - e2) / (jkc + g)
+    return jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus
 
 
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None, closest_at_m=None) -> np.ndarray:
@@ -383,6 +446,50 @@ def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     zs = (t + 1) * fl.wire_height_m / 2
     ends = np.array([pts[0], pts[-1]])
     return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
+
+
+def runs_points(fls, xs) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`route_points` of several runs (``xs`` their samples), concatenated in order: (points (N, 2), heights
+    (N,)); each run's part the same numbers, in one array."""
+    t, _ = gauss_legendre(LEAD_POINTS)
+    sizes = [len(x) + (0 if fl.buried else 2 * LEAD_POINTS) for fl, x in zip(fls, xs)]
+    pts, heights = np.empty((sum(sizes), 2)), np.empty(sum(sizes))
+    i = 0
+    for fl, x, size in zip(fls, xs, sizes):
+        b = fl.bearing_rad
+        n = len(x)
+        run = pts[i : i + n]
+        np.multiply(np.asarray(x, dtype=float)[:, None], np.array([np.sin(b), np.cos(b)])[None, :], out=run)
+        run += np.asarray(fl.start_m, dtype=float)[None, :]
+        heights[i : i + n] = fl.wire_height_m
+        if not fl.buried:
+            zs = (t + 1) * fl.wire_height_m / 2
+            pts[i + n : i + n + LEAD_POINTS] = run[0]
+            pts[i + n + LEAD_POINTS : i + size] = run[-1]
+            heights[i + n : i + n + LEAD_POINTS] = zs
+            heights[i + n + LEAD_POINTS : i + size] = zs
+        i += size
+    return pts, heights
+
+
+def runs_emf_from(fls, xs, e) -> list:
+    """:func:`route_emf_from` of several runs from the field ``e`` at :func:`runs_points`' points: [(x, EMF, lead
+    EMFs)] of each."""
+    _, wq = gauss_legendre(LEAD_POINTS)
+    out = []
+    i = 0
+    for fl, x in zip(fls, xs):
+        b = fl.bearing_rad
+        n = len(x)
+        emf = e[i : i + n, 0] * np.sin(b) + e[i : i + n, 1] * np.cos(b)
+        i += n
+        if fl.buried:
+            out.append((x, emf, np.zeros(2, dtype=complex)))
+            continue
+        lead = (e[i : i + 2 * LEAD_POINTS, 2].reshape(2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
+        i += 2 * LEAD_POINTS
+        out.append((x, emf, lead))
+    return out
 
 
 def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gamma=None, closest_at_m=None):
@@ -416,6 +523,31 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
     current = (emf * transfer) @ pairs_rule(x)
     current = current + lead[0] * transfer[0] - lead[1] * transfer[-1]  # up at the antenna, down at the station
     return complex(-current * c.divider)
+
+
+def emf_currents(fls, cs, emfs) -> np.ndarray:
+    """:func:`emf_current` of several runs at once (K,): ``fls`` their FeedLines, ``cs`` their couplings, ``emfs``
+    their :func:`route_emf` (x, EMF, lead EMFs); every run's samples in one pass of the transfer function, each
+    run's sum its own (the same arithmetic but the order of the sums: equal to rounding)."""
+    k = len(fls)
+    if k == 1:
+        return np.array([emf_current(fls[0], cs[0], *emfs[0])])
+    sizes = np.array([len(x) for x, _, _ in emfs])
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+    length = np.array([fl.length_m for fl in fls])
+    g = np.array([c.line.gamma for c in cs], dtype=complex)
+    z0 = np.array([c.line.z0 for c in cs], dtype=complex)
+    z_a = np.array([c.z_end for c in cs], dtype=complex)
+    z_s = np.array([fl.station_ground_ohm for fl in fls], dtype=complex)
+    d = z0 * (z_a + z_s) * np.cosh(g * length) + (z0**2 + z_a * z_s) * np.sinh(g * length)
+    run = np.repeat(np.arange(k), sizes)
+    arg = g[run] * (length[run] - np.concatenate([x for x, _, _ in emfs]))
+    transfer = (z0[run] * np.cosh(arg) + z_s[run] * np.sinh(arg)) / d[run]
+    weights = np.concatenate([pairs_rule(x) for x, _, _ in emfs])
+    current = np.add.reduceat(np.concatenate([e for _, e, _ in emfs]) * transfer * weights, starts)
+    leads = np.array([lead for _, _, lead in emfs], dtype=complex).reshape(k, 2)
+    current = current + leads[:, 0] * transfer[starts] - leads[:, 1] * transfer[starts + sizes - 1]
+    return -current * np.array([c.divider for c in cs], dtype=complex)
 
 
 def field_current(fl: FeedLine, c: Coupling, freq_hz: float, field, *, closest_m: float) -> complex:
