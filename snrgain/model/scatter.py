@@ -129,11 +129,7 @@ def wire_terms(sc, antennas, tx: phys.TxVertical) -> list:
     """The coupling terms (physics.scatter.coupling_terms) of the long wires among ``antennas`` (placed copies of a
     few designs: a layout's trials), worked for all places of one design at once; None for the others."""
     out: list = [None] * len(antennas)
-    groups: dict = {}
-    for k, a in enumerate(antennas):
-        a = bare(a)
-        if a.long_wire and modelled(a) and a.gain_key() is not None:
-            groups.setdefault(a.gain_key(), []).append(k)
+    groups, _ = _design_groups(antennas, wires=True)
     for ks in groups.values():
         feeds = np.array([bare(antennas[k]).params.position for k in ks], dtype=float)
         try:
@@ -185,25 +181,17 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
         phys.check_height(tx, f)
     except ValueError:
         return out
-    groups: dict = {}
-    for k, a in enumerate(antennas):
-        b = bare(a)
-        if not modelled(b):
-            continue
-        key = b.gain_key()
-        if key is None:
-            c = tx_cost(sc, a, tx=tx, terms=terms[k])
-            out[k] = 0.0 if c is None else c["cost_db"]
-            continue
-        groups.setdefault(key, []).append(k)
+    groups, singles = _design_groups(antennas)
+    for k in singles:
+        c = tx_cost(sc, antennas[k], tx=tx, terms=terms[k])
+        out[k] = 0.0 if c is None else c["cost_db"]
     k_wave = 2 * np.pi * f / phys.C_M_PER_S
-    for ks in groups.values():
+    for key, ks in groups.items():
         b0 = bare(antennas[ks[0]])
-        az, el, _, (ev0, eh0), alone = _alone(b0, f)
-        field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
-        field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
-        ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
-        sums = _cell_sums(ev0, eh0, field, el, ux, uy)
+        alone, sums, ux, uy = _SUMS.get(
+            (key, phys._params_json(tx.vertical.params), float(tx.radius_m), complex(tx.load_ohm), float(f)),
+            lambda b0=b0: _design_sums(b0, tx, f),
+        )
         for start in range(0, len(ks), 128):
             chunk = ks[start : start + 128]
             cs, refs = [], []
@@ -217,6 +205,46 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
             d = np.asarray(tx.position_m, dtype=float)[None, :] - np.asarray(refs, dtype=float)
             out[chunk] = alone["rdf_db"] - _rdf_at(sums, np.asarray(cs), d, k_wave, ux, uy)
     return out
+
+
+def _design_groups(antennas, *, wires: bool = False) -> tuple[dict, list]:
+    """({gain_key: indices} of the computed antennas (:func:`modelled`) that share a design, [indices of the computed
+    ones without a gain_key]); ``wires``: long wires only.  :func:`modelled` is asked once per design and whether it
+    stands on the plan (all it depends on besides the design)."""
+    groups: dict = {}
+    singles: list = []
+    seen: dict = {}
+    for k, a in enumerate(antennas):
+        b = bare(a)
+        if wires and not b.long_wire:
+            continue
+        key = b.gain_key()
+        if key is None:
+            if modelled(b) and not wires:
+                singles.append(k)
+            continue
+        placed = b.params.position is not None or getattr(b, "positions", None) is not None
+        m = seen.get((key, placed))
+        if m is None:
+            m = seen[(key, placed)] = modelled(b)
+        if m:
+            groups.setdefault(key, []).append(k)
+    return groups, singles
+
+
+_SUMS = Memo(64)
+"""A design's :func:`_design_sums` beside one scatterer (a layout scores the same design at many places, call after
+call)."""
+
+
+def _design_sums(b0, tx: phys.TxVertical, f: float) -> tuple:
+    """(its metrics alone, :func:`_cell_sums`, the cells' east and north direction cosines) of the design of ``b0``
+    beside ``tx`` on tx_cost's grid: all of :func:`tx_costs_db` that is the same at every place."""
+    az, el, _, (ev0, eh0), alone = _alone(b0, f)
+    field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
+    field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
+    ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
+    return alone, _cell_sums(ev0, eh0, field, el, ux, uy), ux, uy
 
 
 def _cell_sums(ev0, eh0, field, el, ux, uy) -> tuple:
