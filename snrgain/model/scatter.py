@@ -237,14 +237,29 @@ _SUMS = Memo(64)
 call)."""
 
 
+_GRID_FIELD = Memo(8)
+"""A scatterer's :func:`_cell_field` on tx_cost's grid (the same for every design beside it)."""
+
+
 def _design_sums(b0, tx: phys.TxVertical, f: float) -> tuple:
     """(its metrics alone, :func:`_cell_sums`, the cells' east and north direction cosines) of the design of ``b0``
     beside ``tx`` on tx_cost's grid: all of :func:`tx_costs_db` that is the same at every place."""
     az, el, _, (ev0, eh0), alone = _alone(b0, f)
+    n = len(az) - 2  # tx_cost's grid (the same for every design), then the design's forward and back
+    key = (phys._params_json(tx.vertical.params), complex(tx.load_ohm), float(tx.radius_m), float(f))
+    grid = _GRID_FIELD.get(key, lambda: (*_grid(), *_cell_field(tx, f, *_grid())))
+    if not (np.array_equal(grid[0], az[:n]) and np.array_equal(grid[1], el[:n])):  # not that grid: worked here
+        grid = (az[:n], el[:n], *_cell_field(tx, f, az[:n], el[:n]))
+    ends = _cell_field(tx, f, az[n:], el[n:])  # elementwise: the same values as worked with the grid's
+    field, ux, uy = (np.concatenate([g, e]) for g, e in zip(grid[2:], ends))
+    return alone, _cell_sums(ev0, eh0, field, el, ux, uy), ux, uy
+
+
+def _cell_field(tx: phys.TxVertical, f: float, az: np.ndarray, el: np.ndarray) -> tuple:
+    """(the scatterer's re-radiated field per unit coupling term, east and north direction cosines) on directions."""
     field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
     field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
-    ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
-    return alone, _cell_sums(ev0, eh0, field, el, ux, uy), ux, uy
+    return field, np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
 
 
 def _cell_sums(ev0, eh0, field, el, ux, uy) -> tuple:
