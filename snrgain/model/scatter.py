@@ -297,11 +297,15 @@ def _rdf_at(sums, cs, d, k_wave, ux, uy) -> np.ndarray:
     half = len(a1)
     if len(d) > 1:  # places on a lattice: rows of phases per east and per north offset, shared
         grid = (float(k_wave), hash(ux[:half].tobytes()), hash(uy[:half].tobytes()))
-        phi = _phases(grid, 0, d[:, 0], k_wave, ux[:half]) * _phases(grid, 1, d[:, 1], k_wave, uy[:half])
+        east, we = _phase_rows(grid, 0, d[:, 0], k_wave, ux[:half])
+        north, wn = _phase_rows(grid, 1, d[:, 1], k_wave, uy[:half])
+        # sum_j east[e, j] north[n, j] a[j] for every pair of offsets as one matrix product, then each place's pair
+        m = len(a2c)
+        s = ((east * a1) @ north.T)[we, wn] + np.conj(((east[:, :m] * a2c) @ north[:, :m].T)[we, wn])
     else:
         arg = k_wave * (d[:, :1] * ux[None, :half] + d[:, 1:] * uy[None, :half])
         phi = np.cos(arg) + 1j * np.sin(arg)
-    s = np.einsum("pj,j->p", phi, a1) + np.conj(np.einsum("pj,j->p", phi[:, : len(a2c)], a2c))
+        s = np.einsum("pj,j->p", phi, a1) + np.conj(np.einsum("pj,j->p", phi[:, : len(a2c)], a2c))
     mean = base + np.abs(cs) ** 2 * power + 2 * np.real(cs * s)
     fwd = np.exp(1j * k_wave * (d[:, 0] * ux[-2] + d[:, 1] * uy[-2]))
     g_f = np.abs(ev_f + cs * field_f * fwd) ** 2 + h2_f
@@ -315,6 +319,13 @@ _PHASES = Memo(256)
 def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> np.ndarray:
     """exp(j k x_p u) (P, cells) for offsets ``x`` (P,) along one axis (the phase exp(j k d . u) is the product of
     the east and the north one's), each distinct offset's row worked once and kept (``grid``: what the cells are)."""
+    rows, which = _phase_rows(grid, axis, x, k_wave, u)
+    return rows[which]
+
+
+def _phase_rows(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(exp(j k v u) (V, cells) for each distinct offset v of ``x``, which of them each offset is (P,)): the rows of
+    :func:`_phases`, each worked once and kept."""
     values, which = np.unique(x, return_inverse=True)
 
     def row(v):
@@ -322,7 +333,7 @@ def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray)
         return np.cos(arg) + 1j * np.sin(arg)
 
     rows = np.array([_PHASES.get((grid, axis, float(v)), lambda v=v: row(v)) for v in values])
-    return rows[which.ravel()]
+    return rows, which.ravel()
 
 
 def tx_cost(
