@@ -292,7 +292,8 @@ def _rdf_at(sums, cs, d, k_wave, ux, uy) -> np.ndarray:
     offset d (P, 2) toward the scatterer), from :func:`_cell_sums`: the mean over the cells is
     mean(|ev0|^2 + |eh0|^2) + |c|^2 mean(|field|^2) + 2 Re(c sum(a exp(j k d . u))), the phases worked on the
     first half of the azimuths only (the grid's azimuths come in pairs 180 deg apart, so the second half's phases
-    are the first's conjugates), at many places as the east phase times the north one (:func:`_phases`)."""
+    are the first's conjugates), at many places as the east phase times the north one (:func:`_phase_rows`): the
+    sum over the cells one matrix product over the distinct east and north offsets."""
     base, power, a1, a2c, (ev_f, h2_f, field_f) = sums
     half = len(a1)
     if len(d) > 1:  # places on a lattice: rows of phases per east and per north offset, shared
@@ -316,16 +317,10 @@ _PHASES = Memo(256)
 """exp(j k x u) over tx_cost's cells for one east or north offset x [m] (a layout's places share a lattice)."""
 
 
-def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> np.ndarray:
-    """exp(j k x_p u) (P, cells) for offsets ``x`` (P,) along one axis (the phase exp(j k d . u) is the product of
-    the east and the north one's), each distinct offset's row worked once and kept (``grid``: what the cells are)."""
-    rows, which = _phase_rows(grid, axis, x, k_wave, u)
-    return rows[which]
-
-
 def _phase_rows(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(exp(j k v u) (V, cells) for each distinct offset v of ``x``, which of them each offset is (P,)): the rows of
-    :func:`_phases`, each worked once and kept."""
+    """(exp(j k v u) (V, cells) for each distinct offset v of ``x`` (P,) along one axis, which of them each offset
+    is (P,)): each row worked once and kept (``grid``: what the cells are); the phase exp(j k d . u) of a place is
+    the product of its east and its north offset's."""
     values, which = np.unique(x, return_inverse=True)
 
     def row(v):
