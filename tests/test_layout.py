@@ -215,6 +215,12 @@ def test_the_rules_worked_on_many_designs_at_once_match_one_by_one(name):
         one = [pb.violations(d) for d in designs]
         assert pb.violations_many(designs) == one
         assert any(one) and not all(one)
+        # the flags alone (the grid's feasibility, the refinement's trials): broken exactly where a value is > 0
+        assert list(pb.keep_rules(designs)) == [not v for v in one]
+        flags = pb.violation_columns(designs, flags=True)
+        full = pb.violation_columns(designs)
+        assert [r for r, _ in flags] == [r for r, _ in full]
+        assert all(np.array_equal(a > 0, b > 0) for (_, a), (_, b) in zip(flags, full))
 
 
 def test_a_design_scored_through_its_unplaced_products_equals_a_fresh_evaluation():

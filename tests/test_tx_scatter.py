@@ -649,3 +649,24 @@ def test_a_wires_emfs_from_the_vertical_are_worked_once_for_every_resistor(monke
     for w, want in zip(wires, fresh):
         assert scatter.wire_couplings(w, t, F_HZ, feeds).tobytes() == want.tobytes()
     assert len(calls) == 1
+
+
+def test_the_cost_of_many_places_on_a_lattice_equals_each_place_alone():
+    # model.scatter._rdf_at: places on a lattice (the phase sums as one matrix product over the distinct east and
+    # north offsets) against each place worked alone (its phases worked directly), on random cell sums.
+    from snrgain.model.scatter import _cell_sums, _grid, _rdf_at
+
+    rng = np.random.default_rng(7)
+    az, el = _grid()
+    az = np.concatenate([az, [0.7, 0.7 + np.pi]])
+    el = np.concatenate([el, [0.35, 0.35]])
+    ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
+    ev0, eh0, field = (rng.normal(size=len(az)) + 1j * rng.normal(size=len(az)) for _ in range(3))
+    sums = _cell_sums(ev0, eh0, 0.3 * field, el, ux, uy)
+    e, n = np.meshgrid([-40.0, -12.5, 3.0, 77.0], [5.0, 18.0, 120.0], indexing="ij")
+    d = np.column_stack([e.ravel(), n.ravel()])
+    cs = rng.normal(size=len(d)) + 1j * rng.normal(size=len(d))
+    k = 2 * np.pi * 1.83e6 / 299792458.0
+    many = _rdf_at(sums, cs, d, k, ux, uy)
+    alone = np.array([_rdf_at(sums, cs[p : p + 1], d[p : p + 1], k, ux, uy)[0] for p in range(len(d))])
+    assert np.max(np.abs(many - alone)) < 1e-9

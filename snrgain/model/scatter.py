@@ -129,11 +129,7 @@ def wire_terms(sc, antennas, tx: phys.TxVertical) -> list:
     """The coupling terms (physics.scatter.coupling_terms) of the long wires among ``antennas`` (placed copies of a
     few designs: a layout's trials), worked for all places of one design at once; None for the others."""
     out: list = [None] * len(antennas)
-    groups: dict = {}
-    for k, a in enumerate(antennas):
-        a = bare(a)
-        if a.long_wire and modelled(a) and a.gain_key() is not None:
-            groups.setdefault(a.gain_key(), []).append(k)
+    groups, _ = _design_groups(antennas, wires=True)
     for ks in groups.values():
         feeds = np.array([bare(antennas[k]).params.position for k in ks], dtype=float)
         try:
@@ -185,25 +181,17 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
         phys.check_height(tx, f)
     except ValueError:
         return out
-    groups: dict = {}
-    for k, a in enumerate(antennas):
-        b = bare(a)
-        if not modelled(b):
-            continue
-        key = b.gain_key()
-        if key is None:
-            c = tx_cost(sc, a, tx=tx, terms=terms[k])
-            out[k] = 0.0 if c is None else c["cost_db"]
-            continue
-        groups.setdefault(key, []).append(k)
+    groups, singles = _design_groups(antennas)
+    for k in singles:
+        c = tx_cost(sc, antennas[k], tx=tx, terms=terms[k])
+        out[k] = 0.0 if c is None else c["cost_db"]
     k_wave = 2 * np.pi * f / phys.C_M_PER_S
-    for ks in groups.values():
+    for key, ks in groups.items():
         b0 = bare(antennas[ks[0]])
-        az, el, _, (ev0, eh0), alone = _alone(b0, f)
-        field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
-        field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
-        ux, uy = np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
-        sums = _cell_sums(ev0, eh0, field, el, ux, uy)
+        alone, sums, ux, uy = _SUMS.get(
+            (key, phys._params_json(tx.vertical.params), float(tx.radius_m), complex(tx.load_ohm), float(f)),
+            lambda b0=b0: _design_sums(b0, tx, f),
+        )
         for start in range(0, len(ks), 128):
             chunk = ks[start : start + 128]
             cs, refs = [], []
@@ -217,6 +205,61 @@ def tx_costs_db(sc, antennas, tx: phys.TxVertical, terms=None) -> np.ndarray:
             d = np.asarray(tx.position_m, dtype=float)[None, :] - np.asarray(refs, dtype=float)
             out[chunk] = alone["rdf_db"] - _rdf_at(sums, np.asarray(cs), d, k_wave, ux, uy)
     return out
+
+
+def _design_groups(antennas, *, wires: bool = False) -> tuple[dict, list]:
+    """({gain_key: indices} of the computed antennas (:func:`modelled`) that share a design, [indices of the computed
+    ones without a gain_key]); ``wires``: long wires only.  :func:`modelled` is asked once per design and whether it
+    stands on the plan (all it depends on besides the design)."""
+    groups: dict = {}
+    singles: list = []
+    seen: dict = {}
+    for k, a in enumerate(antennas):
+        b = bare(a)
+        if wires and not b.long_wire:
+            continue
+        key = b.gain_key()
+        if key is None:
+            if modelled(b) and not wires:
+                singles.append(k)
+            continue
+        placed = b.params.position is not None or getattr(b, "positions", None) is not None
+        m = seen.get((key, placed))
+        if m is None:
+            m = seen[(key, placed)] = modelled(b)
+        if m:
+            groups.setdefault(key, []).append(k)
+    return groups, singles
+
+
+_SUMS = Memo(64)
+"""A design's :func:`_design_sums` beside one scatterer (a layout scores the same design at many places, call after
+call)."""
+
+
+_GRID_FIELD = Memo(8)
+"""A scatterer's :func:`_cell_field` on tx_cost's grid (the same for every design beside it)."""
+
+
+def _design_sums(b0, tx: phys.TxVertical, f: float) -> tuple:
+    """(its metrics alone, :func:`_cell_sums`, the cells' east and north direction cosines) of the design of ``b0``
+    beside ``tx`` on tx_cost's grid: all of :func:`tx_costs_db` that is the same at every place."""
+    az, el, _, (ev0, eh0), alone = _alone(b0, f)
+    n = len(az) - 2  # tx_cost's grid (the same for every design), then the design's forward and back
+    key = (phys._params_json(tx.vertical.params), complex(tx.load_ohm), float(tx.radius_m), float(f))
+    grid = _GRID_FIELD.get(key, lambda: (*_grid(), *_cell_field(tx, f, *_grid())))
+    if not (np.array_equal(grid[0], az[:n]) and np.array_equal(grid[1], el[:n])):  # not that grid: worked here
+        grid = (az[:n], el[:n], *_cell_field(tx, f, az[:n], el[:n]))
+    ends = _cell_field(tx, f, az[n:], el[n:])  # elementwise: the same values as worked with the grid's
+    field, ux, uy = (np.concatenate([g, e]) for g, e in zip(grid[2:], ends))
+    return alone, _cell_sums(ev0, eh0, field, el, ux, uy), ux, uy
+
+
+def _cell_field(tx: phys.TxVertical, f: float, az: np.ndarray, el: np.ndarray) -> tuple:
+    """(the scatterer's re-radiated field per unit coupling term, east and north direction cosines) on directions."""
+    field = phys.effective_height_scale(tx, f) * phys.vertical_response(tx, f, az, el)
+    field = field / (phys.self_impedance(tx, f) + tx.load_ohm)
+    return field, np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
 
 
 def _cell_sums(ev0, eh0, field, el, ux, uy) -> tuple:
@@ -249,16 +292,21 @@ def _rdf_at(sums, cs, d, k_wave, ux, uy) -> np.ndarray:
     offset d (P, 2) toward the scatterer), from :func:`_cell_sums`: the mean over the cells is
     mean(|ev0|^2 + |eh0|^2) + |c|^2 mean(|field|^2) + 2 Re(c sum(a exp(j k d . u))), the phases worked on the
     first half of the azimuths only (the grid's azimuths come in pairs 180 deg apart, so the second half's phases
-    are the first's conjugates), at many places as the east phase times the north one (:func:`_phases`)."""
+    are the first's conjugates), at many places as the east phase times the north one (:func:`_phase_rows`): the
+    sum over the cells one matrix product over the distinct east and north offsets."""
     base, power, a1, a2c, (ev_f, h2_f, field_f) = sums
     half = len(a1)
     if len(d) > 1:  # places on a lattice: rows of phases per east and per north offset, shared
         grid = (float(k_wave), hash(ux[:half].tobytes()), hash(uy[:half].tobytes()))
-        phi = _phases(grid, 0, d[:, 0], k_wave, ux[:half]) * _phases(grid, 1, d[:, 1], k_wave, uy[:half])
+        east, we = _phase_rows(grid, 0, d[:, 0], k_wave, ux[:half])
+        north, wn = _phase_rows(grid, 1, d[:, 1], k_wave, uy[:half])
+        # sum_j east[e, j] north[n, j] a[j] for every pair of offsets as one matrix product, then each place's pair
+        m = len(a2c)
+        s = ((east * a1) @ north.T)[we, wn] + np.conj(((east[:, :m] * a2c) @ north[:, :m].T)[we, wn])
     else:
         arg = k_wave * (d[:, :1] * ux[None, :half] + d[:, 1:] * uy[None, :half])
         phi = np.cos(arg) + 1j * np.sin(arg)
-    s = np.einsum("pj,j->p", phi, a1) + np.conj(np.einsum("pj,j->p", phi[:, : len(a2c)], a2c))
+        s = np.einsum("pj,j->p", phi, a1) + np.conj(np.einsum("pj,j->p", phi[:, : len(a2c)], a2c))
     mean = base + np.abs(cs) ** 2 * power + 2 * np.real(cs * s)
     fwd = np.exp(1j * k_wave * (d[:, 0] * ux[-2] + d[:, 1] * uy[-2]))
     g_f = np.abs(ev_f + cs * field_f * fwd) ** 2 + h2_f
@@ -269,9 +317,10 @@ _PHASES = Memo(256)
 """exp(j k x u) over tx_cost's cells for one east or north offset x [m] (a layout's places share a lattice)."""
 
 
-def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> np.ndarray:
-    """exp(j k x_p u) (P, cells) for offsets ``x`` (P,) along one axis (the phase exp(j k d . u) is the product of
-    the east and the north one's), each distinct offset's row worked once and kept (``grid``: what the cells are)."""
+def _phase_rows(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(exp(j k v u) (V, cells) for each distinct offset v of ``x`` (P,) along one axis, which of them each offset
+    is (P,)): each row worked once and kept (``grid``: what the cells are); the phase exp(j k d . u) of a place is
+    the product of its east and its north offset's."""
     values, which = np.unique(x, return_inverse=True)
 
     def row(v):
@@ -279,7 +328,7 @@ def _phases(grid: tuple, axis: int, x: np.ndarray, k_wave: float, u: np.ndarray)
         return np.cos(arg) + 1j * np.sin(arg)
 
     rows = np.array([_PHASES.get((grid, axis, float(v)), lambda v=v: row(v)) for v in values])
-    return rows[which.ravel()]
+    return rows, which.ravel()
 
 
 def tx_cost(

@@ -377,13 +377,17 @@ class Problem:
 
     def keep_rules(self, designs: list[Design], others=()) -> np.ndarray:
         """Whether each design keeps every rule beside ``others`` (:meth:`violations_many` empty), as an array."""
-        columns = self.violation_columns(designs, others)
+        columns = self.violation_columns(designs, others, flags=True)
         if not columns:
             return np.ones(len(designs), dtype=bool)
         return ~np.any(np.array([v > 0 for _, v in columns]), axis=0)
 
-    def violation_columns(self, designs: list[Design], others=()) -> list[tuple[str, np.ndarray]]:
-        """(rule, how far each design breaks it [m]) of :meth:`violations_many`, rule by rule."""
+    def violation_columns(
+        self, designs: list[Design], others=(), *, flags: bool = False
+    ) -> list[tuple[str, np.ndarray]]:
+        """(rule, how far each design breaks it [m]) of :meth:`violations_many`, rule by rule; ``flags``: only
+        whether each breaks it counts (a footprint the lot does not cover has a part of some length outside it: 1
+        stands for that length, not worked out)."""
         import shapely
 
         if designs and all(d.length_m is not None for d in designs):  # wires: their footprints made at once
@@ -404,7 +408,9 @@ class Problem:
         covered = shapely.covers(self.lot, shapes)
         lot = np.zeros(len(shapes))
         out = ~covered
-        if out.any():
+        if flags:
+            lot[out] = 1.0
+        elif out.any():
             lot[out & line] = shapely.length(shapely.difference(shapes[out & line], self.lot))
             lot[out & ~line] = 1.0 + shapely.distance(self.lot.exterior, shapes[out & ~line])
         columns.append(("the lot's outline", lot))
@@ -452,7 +458,7 @@ class Problem:
         ValueError naming the rules that bind, most binding first, when there is none."""
         pairs, points = self.grid_designs(i)
         designs = [Design(self.names[i], e, n, b, ln, self.state_names[i]) for b, ln in pairs for e, n in points]
-        columns = self.violation_columns(designs)
+        columns = self.violation_columns(designs, flags=True)
         broken: dict[str, np.ndarray] = {}  # by rule (a name given twice: broken where either column is)
         for rule, v in columns:
             broken[rule] = broken.get(rule, np.zeros(len(designs), dtype=bool)) | (v > 0)
