@@ -370,7 +370,6 @@ def sky_gain(
     ground or the line: a ground spread's nodes take one).  :func:`sky_response`'s arithmetic up to the currents,
     their powers then taken without the complex responses (equal to rounding)."""
     from snrgain.antennas.longwire import (
-        _power,
         above_horizon,
         field_along_wire,
         line_currents,
@@ -396,7 +395,7 @@ def sky_gain(
     # the port response's |scale (-I divider)|^2 for both polarisations (snrgain.antennas.longwire.port_response)
     lam = C_M_PER_S / freq_hz
     scale2 = 4 * np.pi / lam**2 * c.load_ohm * ETA0_OHM * abs(c.divider) ** 2
-    return np.where(above_horizon(w.el), scale2 * (_power(i_v) + _power(i_h)), 0.0)
+    return np.where(above_horizon(w.el), scale2 * (i_v.real**2 + i_v.imag**2 + i_h.real**2 + i_h.imag**2), 0.0)
 
 
 def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarray]:
