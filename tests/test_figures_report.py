@@ -549,3 +549,34 @@ def test_the_results_sent_to_the_figures_process_draw_the_same_figures(results):
         whole = drawing.figure_bytes(fn(results, **kw), "png", **plots.SAVE_OPTIONS)
         assert drawing.figure_bytes(fn(light, **kw), "png", **plots.SAVE_OPTIONS) == whole, name
     assert plots.for_drawing(light).noise.maps == light.noise.maps  # idempotent
+
+
+def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
+    # snrgain.outputs.canvas keeps each text's measure, layout and font heights for the process (the command line's
+    # figures' processes): the figures drawn so, one after the other (the second azimuth pattern reading what the
+    # first found), are matplotlib's own pixels, with the default settings and with the figures' own.
+    from functools import partial
+
+    import matplotlib as mpl
+
+    from snrgain.outputs import canvas, drawing
+
+    makers = [
+        partial(plots.azimuth_pattern, results, target_index=0),
+        partial(plots.ranking_chart, results),
+        partial(plots.azimuth_pattern, results, target_index=0),
+        partial(plots.elevation_pattern, results, target_index=0),
+    ]
+    for rc in ({}, drawing.DRAWING_RC):
+        with mpl.rc_context(rc):
+            assert not canvas._REMEMBER
+            plain = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
+            was = canvas.remember_text(True)
+            try:
+                figs = [make() for make in makers]
+                assert all(type(f.canvas) is canvas.RememberingCanvas for f in figs)
+                assert [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in figs] == plain
+                assert canvas._MEASURED and canvas._LAID_OUT and canvas._HEIGHTS
+            finally:
+                canvas.remember_text(was)
+        assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas

@@ -92,13 +92,15 @@ def _blank_key(n, polar, figsize, columns, width_ratios, sharex, sharey) -> tupl
 
 
 def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
 
+    from snrgain.outputs.canvas import new_canvas
+
     # At the files' resolution, on an Agg canvas of its own: a PNG is then drawn once, at its size
-    # (snrgain.outputs.drawing.save_figure).
+    # (snrgain.outputs.drawing.save_figure); in the command line's figures' processes one that measures each text
+    # once for all the figures (snrgain.outputs.canvas).
     fig = Figure(figsize=figsize, dpi=SAVE_OPTIONS["dpi"])
-    FigureCanvasAgg(fig)
+    new_canvas(fig)
     if polar:
         return fig, [fig.add_subplot(projection="polar")]
     shape = (1, n) if columns else (n, 1)
