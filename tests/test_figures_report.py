@@ -580,3 +580,15 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
             finally:
                 canvas.remember_text(was)
         assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas
+
+
+def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
+    # plots.prepare_sky makes the sky figure's interpolation weights before the results (the figures' process
+    # does, while the command evaluates): the figure drawn with them is the figure drawn without, byte for byte.
+    from snrgain.outputs import drawing
+
+    monkeypatch.setattr(plots, "_SKY_WEIGHTS", {})
+    without = drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS)
+    plots.prepare_sky(results.nside)
+    assert list(plots._SKY_WEIGHTS) == [results.nside]
+    assert drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS) == without
