@@ -567,19 +567,26 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
         partial(plots.azimuth_pattern, results, target_index=0),
         partial(plots.elevation_pattern, results, target_index=0),
     ]
+    from matplotlib.backends import backend_svg
+
+    svg = {"bbox_inches": "tight", "metadata": {"Date": None}}
     for rc in ({}, drawing.DRAWING_RC):
-        with mpl.rc_context(rc):
+        with mpl.rc_context({**rc, "svg.hashsalt": "fixed"}):
             assert not canvas._REMEMBER
             plain = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
+            plain_svg = [drawing.figure_bytes(make(), "svg", **svg) for make in makers]
             was = canvas.remember_text(True)
             try:
                 figs = [make() for make in makers]
                 assert all(type(f.canvas) is canvas.RememberingCanvas for f in figs)
                 assert [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in figs] == plain
                 assert canvas._MEASURED and canvas._LAID_OUT and canvas._HEIGHTS
+                assert backend_svg.RendererSVG is canvas.RememberingSVGRenderer
+                assert [drawing.figure_bytes(make(), "svg", **svg) for make in makers] == plain_svg
             finally:
                 canvas.remember_text(was)
         assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas
+        assert backend_svg.RendererSVG is not canvas.RememberingSVGRenderer
 
 
 def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):

@@ -19,6 +19,7 @@ from __future__ import annotations
 import os
 
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
+from matplotlib.backends.backend_svg import RendererSVG as _RendererSVG
 
 _REMEMBER = False
 """Whether :func:`new_canvas` gives the remembering canvas (the command line's figures' processes)."""
@@ -40,10 +41,14 @@ def remember_text(on: bool = True) -> bool:
     """Have :func:`new_canvas` give the remembering canvas (on) or matplotlib's (off); the answers kept so far are
     forgotten where that changes (the fonts may have changed meanwhile).  Returns the setting before."""
     global _REMEMBER
+    from matplotlib.backends import backend_svg
+
     was = _REMEMBER
     if bool(on) != was:
         _REMEMBER = bool(on)
         forget()
+        # The SVG writer makes its renderer by this name (FigureCanvasSVG.print_svg).
+        backend_svg.RendererSVG = RememberingSVGRenderer if on else _RendererSVG
     return was
 
 
@@ -70,6 +75,33 @@ def _keep(store: dict, key, value):
         store.clear()
     store[key] = value
     return value
+
+
+def _font_heights(prop, dpi: float):
+    """The font's ascent, descent and line gap at its size and ``dpi``, as ``Text`` reads them from the font's
+    tables when the renderer does not give them (matplotlib.text.Text._get_layout): the same arithmetic, done
+    once for the process."""
+    key = (_font_key(prop), dpi)
+    found = _HEIGHTS.get(key)
+    if found is not None:
+        return found
+    from matplotlib.font_manager import fontManager, get_font
+
+    font = get_font(fontManager._find_fonts_by_props(prop))
+    for table_name, linegap_key, ascent_key, descent_key in (
+        ("OS/2", "sTypoLineGap", "sTypoAscender", "sTypoDescender"),
+        ("hhea", "lineGap", "ascent", "descent"),
+    ):
+        table = font.get_sfnt_table(table_name)
+        if table is None:
+            continue
+        fontsize = prop.get_size_in_points()
+        units_per_em = font.get_sfnt_table("head")["unitsPerEm"]
+        scale = 1 / units_per_em * fontsize * dpi / 72
+        return _keep(
+            _HEIGHTS, key, (table[ascent_key] * scale, -table[descent_key] * scale, table[linegap_key] * scale)
+        )
+    return None, None, None  # Text measures "lp" instead
 
 
 class RememberingRenderer(RendererAgg):
@@ -105,29 +137,7 @@ class RememberingRenderer(RendererAgg):
         )
 
     def _get_font_height_metrics(self, prop):
-        """The font's ascent, descent and line gap at its size, as ``Text`` reads them from the font's tables when
-        the renderer does not give them (matplotlib.text.Text._get_layout): the same arithmetic, done once."""
-        key = (_font_key(prop), self.dpi)
-        found = _HEIGHTS.get(key)
-        if found is not None:
-            return found
-        from matplotlib.font_manager import fontManager, get_font
-
-        font = get_font(fontManager._find_fonts_by_props(prop))
-        for table_name, linegap_key, ascent_key, descent_key in (
-            ("OS/2", "sTypoLineGap", "sTypoAscender", "sTypoDescender"),
-            ("hhea", "lineGap", "ascent", "descent"),
-        ):
-            table = font.get_sfnt_table(table_name)
-            if table is None:
-                continue
-            fontsize = prop.get_size_in_points()
-            units_per_em = font.get_sfnt_table("head")["unitsPerEm"]
-            scale = 1 / units_per_em * fontsize * self.dpi / 72
-            return _keep(
-                _HEIGHTS, key, (table[ascent_key] * scale, -table[descent_key] * scale, table[linegap_key] * scale)
-            )
-        return None, None, None  # Text measures "lp" instead
+        return _font_heights(prop, self.dpi)  # Text's dpi, the figure's: the canvas made the renderer at it
 
 
 class RememberingCanvas(FigureCanvasAgg):
@@ -140,3 +150,20 @@ class RememberingCanvas(FigureCanvasAgg):
             self.renderer = RememberingRenderer(w, h, self.figure.dpi)
             self._lastKey = key
         return self.renderer
+
+
+class RememberingSVGRenderer(_RendererSVG):
+    """matplotlib's SVG renderer, with each text's measure (as paths: the font unhinted at a fixed size, scaled)
+    and font heights found once for the process; used by the SVG writer where :func:`remember_text` is on."""
+
+    def get_text_width_height_descent(self, s, prop, ismath):
+        if ismath:
+            return super().get_text_width_height_descent(s, prop, ismath)
+        key = ("svg", s, _font_key(prop))
+        found = _MEASURED.get(key)
+        if found is None:
+            found = _keep(_MEASURED, key, super().get_text_width_height_descent(s, prop, ismath))
+        return found
+
+    def _get_font_height_metrics(self, prop):
+        return _font_heights(prop, 72)  # the SVG writer draws the figure at 72 dots an inch, a unit a point
