@@ -306,7 +306,7 @@ def png_bytes(pixels, dpi: float, text: dict[str, str], level: int = 6) -> bytes
         raise ValueError(f"pixels: 8-bit RGB or RGBA rows expected; got {pixels.dtype} with {c} channels")
     rows = np.empty((h, 1 + w * c), dtype=np.uint8)
     rows[:, 0] = 0  # filter type 0 on every row
-    rows[:, 1:] = pixels.reshape(h, w * c)
+    rows[:, 1:].reshape(h, w, c)[...] = pixels  # one strided copy (reshaping a cut image first would copy it twice)
 
     def chunk(kind: bytes, data: bytes) -> bytes:
         return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
