@@ -20,6 +20,8 @@ import os
 
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.backends.backend_svg import RendererSVG as _RendererSVG
+from matplotlib.ft2font import FT2Font
+from matplotlib.text import Text
 
 _REMEMBER = False
 """Whether :func:`new_canvas` gives the remembering canvas (the command line's figures' processes)."""
@@ -104,6 +106,20 @@ def _font_heights(prop, dpi: float):
     return None, None, None  # Text measures "lp" instead
 
 
+_LAYOUTS = all(
+    hasattr(*where)
+    for where in (
+        (RendererAgg, "_draw_text_glyphs_and_boxes"),
+        (RendererAgg, "_prepare_font"),
+        (FT2Font, "_layout"),
+        (Text, "get_fontfeatures"),
+        (Text, "get_language"),
+    )
+)
+"""Whether this matplotlib lays text out as :meth:`RememberingRenderer.draw_text` repeats it (3.11's glyph
+layout); with an older one each text is drawn as matplotlib draws it, its measure still kept."""
+
+
 class RememberingRenderer(RendererAgg):
     """matplotlib's Agg renderer, with each text's measure, layout and font heights found once for the process."""
 
@@ -117,10 +133,10 @@ class RememberingRenderer(RendererAgg):
         return found
 
     def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
-        if ismath:
+        if ismath or not _LAYOUTS or mtext is None:
             return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
-        features = mtext.get_fontfeatures() if mtext is not None else None
-        language = mtext.get_language() if mtext is not None else None
+        features = mtext.get_fontfeatures()
+        language = mtext.get_language()
         flags = get_hinting_flag()
         try:
             key = (s, _font_key(prop), self.dpi, flags, features, language)
