@@ -549,3 +549,53 @@ def test_the_results_sent_to_the_figures_process_draw_the_same_figures(results):
         whole = drawing.figure_bytes(fn(results, **kw), "png", **plots.SAVE_OPTIONS)
         assert drawing.figure_bytes(fn(light, **kw), "png", **plots.SAVE_OPTIONS) == whole, name
     assert plots.for_drawing(light).noise.maps == light.noise.maps  # idempotent
+
+
+def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
+    # snrgain.outputs.canvas keeps each text's measure, layout and font heights for the process (the command line's
+    # figures' processes): the figures drawn so, one after the other (the second azimuth pattern reading what the
+    # first found), are matplotlib's own pixels, with the default settings and with the figures' own.
+    from functools import partial
+
+    import matplotlib as mpl
+
+    from snrgain.outputs import canvas, drawing
+
+    makers = [
+        partial(plots.azimuth_pattern, results, target_index=0),
+        partial(plots.ranking_chart, results),
+        partial(plots.azimuth_pattern, results, target_index=0),
+        partial(plots.elevation_pattern, results, target_index=0),
+    ]
+    from matplotlib.backends import backend_svg
+
+    svg = {"bbox_inches": "tight", "metadata": {"Date": None}}
+    for rc in ({}, drawing.DRAWING_RC):
+        with mpl.rc_context({**rc, "svg.hashsalt": "fixed"}):
+            assert not canvas._REMEMBER
+            plain = [drawing.figure_bytes(make(), "png", **plots.SAVE_OPTIONS) for make in makers]
+            plain_svg = [drawing.figure_bytes(make(), "svg", **svg) for make in makers]
+            was = canvas.remember_text(True)
+            try:
+                figs = [make() for make in makers]
+                assert all(type(f.canvas) is canvas.RememberingCanvas for f in figs)
+                assert [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in figs] == plain
+                assert canvas._MEASURED and (canvas._LAID_OUT and canvas._HEIGHTS or not canvas._LAYOUTS)
+                assert backend_svg.RendererSVG is canvas.RememberingSVGRenderer
+                assert [drawing.figure_bytes(make(), "svg", **svg) for make in makers] == plain_svg
+            finally:
+                canvas.remember_text(was)
+        assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas
+        assert backend_svg.RendererSVG is not canvas.RememberingSVGRenderer
+
+
+def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
+    # plots.prepare_sky makes the sky figure's interpolation weights before the results (the figures' process
+    # does, while the command evaluates): the figure drawn with them is the figure drawn without, byte for byte.
+    from snrgain.outputs import drawing
+
+    monkeypatch.setattr(plots, "_SKY_WEIGHTS", {})
+    without = drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS)
+    plots.prepare_sky(results.nside)
+    assert list(plots._SKY_WEIGHTS) == [results.nside]
+    assert drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS) == without

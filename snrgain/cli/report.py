@@ -129,6 +129,8 @@ def _plan_ahead(drawer, plan, fmt: str, savefig: dict, sc) -> str | None:
     noise = sc.noise  # the sky's diffuse components: man-made, atmospheric, galactic (snrgain.sky.noise)
     diffuse = sum(getattr(noise, k, None) is not None for k in ("man_made", "atmospheric", "galactic"))
     drawer.prepare(plots.blank_steps, plots.blank_kinds(len(sc.targets), len(sc.candidates), diffuse))
+    if diffuse and sc.nside:
+        drawer.prepare(plots.prepare_sky, int(sc.nside))  # the sky figure's interpolation weights
     if plan is None or not plots.has_site_plan(None, plan=plan):
         return None
     drawer.ahead("plan", (partial(plots.scenario_plan, plan), fmt, savefig))

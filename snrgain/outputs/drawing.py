@@ -24,6 +24,7 @@ still evaluates (:meth:`Drawer.ahead`).
 
 from __future__ import annotations
 
+import contextlib
 import io
 import multiprocessing
 import os
@@ -43,11 +44,31 @@ programs (a tenth of a PNG figure's time); the letters stand on fractional pixel
 wider or narrower."""
 
 
+@contextlib.contextmanager
 def drawing_settings():
-    """A context in which matplotlib draws with :data:`DRAWING_RC` (restored after)."""
+    """A context in which matplotlib draws with :data:`DRAWING_RC` and new figures measure each text once
+    (:func:`snrgain.outputs.canvas.remember_text`), both restored after."""
     import matplotlib as mpl
 
-    return mpl.rc_context(DRAWING_RC)
+    from snrgain.outputs.canvas import remember_text
+
+    with mpl.rc_context(DRAWING_RC):
+        was = remember_text(True)
+        try:
+            yield
+        finally:
+            remember_text(was)
+
+
+def _drawing_process() -> None:
+    """Set this process (the figures' helper, a worker of it: processes of their own) to draw as
+    :func:`drawing_settings` draws, for good."""
+    import matplotlib as mpl
+
+    from snrgain.outputs.canvas import remember_text
+
+    mpl.rcParams.update(DRAWING_RC)
+    remember_text(True)
 
 
 def figure_bytes(fig, fmt: str, **savefig) -> bytes:
@@ -118,6 +139,8 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
+    from snrgain.outputs.canvas import RememberingCanvas
+
     if dpi is None:
         dpi = mpl.rcParams["savefig.dpi"]
     if dpi == "figure":
@@ -127,7 +150,7 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
     if (
         rest
         or bbox_inches != "tight"
-        or type(fig.canvas) is not FigureCanvasAgg
+        or type(fig.canvas) not in (FigureCanvasAgg, RememberingCanvas)
         or dpi != fig.dpi
         or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))  # one that acts at each draw
         or mpl.rcParams["savefig.facecolor"] != "auto"
@@ -180,11 +203,13 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
     from matplotlib.transforms import Bbox
 
+    from snrgain.outputs.canvas import RememberingCanvas
+
     engine = fig.get_layout_engine()
     if (
         rest
         or bbox_inches != "tight"
-        or type(fig.canvas) is not FigureCanvasAgg
+        or type(fig.canvas) not in (FigureCanvasAgg, RememberingCanvas)
         or not (engine is None or isinstance(engine, PlaceHolderLayoutEngine))
     ):
         return False
@@ -281,7 +306,7 @@ def png_bytes(pixels, dpi: float, text: dict[str, str], level: int = 6) -> bytes
         raise ValueError(f"pixels: 8-bit RGB or RGBA rows expected; got {pixels.dtype} with {c} channels")
     rows = np.empty((h, 1 + w * c), dtype=np.uint8)
     rows[:, 0] = 0  # filter type 0 on every row
-    rows[:, 1:] = pixels.reshape(h, w * c)
+    rows[:, 1:].reshape(h, w, c)[...] = pixels  # one strided copy (reshaping a cut image first would copy it twice)
 
     def chunk(kind: bytes, data: bytes) -> bytes:
         return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
@@ -371,11 +396,9 @@ def _worker_start(parent: int) -> None:
 
 
 def _drawing_worker_start(parent: int) -> None:
-    """:func:`_worker_start`, and matplotlib set to draw with :data:`DRAWING_RC` (the worker's own settings)."""
-    import matplotlib as mpl
-
+    """:func:`_worker_start`, and the worker set to draw as :func:`drawing_settings` draws."""
     _worker_start(parent)
-    mpl.rcParams.update(DRAWING_RC)
+    _drawing_process()
 
 
 def _run(index: int) -> bytes:
@@ -574,9 +597,7 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
     # reach, its passes while the figures are drawn walk only the figures' own objects (a full pass over
     # matplotlib's and the results' objects took 50-90 ms in a worker).
     gc.freeze()
-    import matplotlib as mpl
-
-    mpl.rcParams.update(DRAWING_RC)  # the helper's own settings, for what it draws ahead
+    _drawing_process()  # the helper's own settings, for what it draws ahead
     early: dict[str, bytes] = {}
     steps: list = []  # preparations given as iterators, taken a step at a time while no message waits
     while True:

@@ -92,13 +92,15 @@ def _blank_key(n, polar, figsize, columns, width_ratios, sharex, sharey) -> tupl
 
 
 def _new_axes(n, polar, figsize, columns, width_ratios, sharex, sharey):
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure  # here, not at import: the report's text needs no matplotlib
 
+    from snrgain.outputs.canvas import new_canvas
+
     # At the files' resolution, on an Agg canvas of its own: a PNG is then drawn once, at its size
-    # (snrgain.outputs.drawing.save_figure).
+    # (snrgain.outputs.drawing.save_figure); in the command line's figures' processes one that measures each text
+    # once for all the figures (snrgain.outputs.canvas).
     fig = Figure(figsize=figsize, dpi=SAVE_OPTIONS["dpi"])
-    FigureCanvasAgg(fig)
+    new_canvas(fig)
     if polar:
         return fig, [fig.add_subplot(projection="polar")]
     shape = (1, n) if columns else (n, 1)
@@ -371,6 +373,30 @@ def _sky_grid(comp, az_edges, el_edges, weights: dict | None = None):
     return np.sum(wgt * full[pix], axis=0).reshape(shape)
 
 
+def _sky_edges() -> tuple[np.ndarray, np.ndarray]:
+    """The azimuth and elevation edges [deg] of the cells :func:`noise_sky` draws."""
+    return np.arange(0, 361, 1.0), np.arange(0, 90.1, 0.5)
+
+
+_SKY_WEIGHTS: dict = {}
+"""The interpolation pixels and weights of :func:`noise_sky`'s grid by HEALPix resolution, made ahead
+(:func:`prepare_sky`)."""
+
+
+def prepare_sky(nside: int) -> None:
+    """Make the interpolation weights of :func:`noise_sky`'s grid at ``nside`` ahead (they need no results: the
+    figures' process makes them while the command evaluates, :meth:`snrgain.outputs.drawing.Drawer.prepare`)."""
+    from noisemodels.sphere import interpolation_weights, to_healpy_angles
+
+    if nside in _SKY_WEIGHTS:
+        return
+    az_edges, el_edges = _sky_edges()
+    az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
+    el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
+    A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
+    _SKY_WEIGHTS[nside] = interpolation_weights(nside, *to_healpy_angles(A.ravel(), E.ravel()))
+
+
 def sky_moment(results) -> tuple[int, int]:
     """The month and hour the sky figure shows unless told (indices into ``results.months`` and
     ``results.utc_hours``): the middle of the listening months and of the listening hours, each in listening
@@ -401,9 +427,8 @@ def noise_sky(
     comps = results.noise.maps[(month_index, hour_index)]
     diffuse = [c for c in comps if c.directions.nside is not None]
     compact = [c for c in comps if c.directions.nside is None]
-    az_edges = np.arange(0, 361, 1.0)
-    el_edges = np.arange(0, 90.1, 0.5)
-    grid_weights: dict = {}
+    az_edges, el_edges = _sky_edges()
+    grid_weights: dict = dict(_SKY_WEIGHTS)  # those made ahead (prepare_sky), and this figure's own
     maps = [(c.name, _sky_grid(c, az_edges, el_edges, grid_weights)) for c in diffuse]
     total = sum(m for _, m in maps) if maps else np.zeros((el_edges.size - 1, az_edges.size - 1))
     panels = (
