@@ -146,3 +146,26 @@ def test_the_command_line_raises_the_collectors_threshold_and_import_snrgain_doe
     assert run("import snrgain.cli") == str(GC_FIRST_THRESHOLD)
     assert run("import snrgain") == run("pass")
     assert run("import gc; gc.set_threshold(200000); import snrgain.cli") == "200000"
+
+
+def test_wire_modes_read_back_without_loading_the_modal_solver(tmp_path):
+    # A wire's modal constants come from the persistent cache once solved: the solver's module (snrgain.physics.modal)
+    # then stays unloaded, its source still keyed (the same digest as the imported module's file).
+    code = (
+        "import sys\n"
+        "from snrgain.physics import lines\n"
+        "from snrgain.physics.ground import Ground\n"
+        "print(lines.overhead_wire(1.83e6, radius_m=0.001, height_m=2.5, ground=Ground(0.005, 13.0, 'x')).freq_hz)\n"
+        "print('snrgain.physics.modal' in sys.modules)\n"
+    )
+    env = {k: v for k, v in os.environ.items() if k != "SNRGAIN_NO_CACHE"}
+    env["SNRGAIN_CACHE_DIR"] = str(tmp_path)
+
+    def run():
+        return subprocess.run(
+            [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO, env=env
+        ).stdout.split()
+
+    assert run()[-1] == "True"  # solved, and kept
+    assert run()[-1] == "False"  # read back
+    assert len(list(tmp_path.rglob("wiremode-*.npy"))) == 1

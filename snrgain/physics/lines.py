@@ -57,6 +57,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
+from pathlib import Path
 
 import numpy as np
 
@@ -309,15 +310,16 @@ def _mode(solver: str, *args):
     arguments: a hit costs no key's hash)."""
     import noisemodels.groundwave
     from noisemodels import skycache
-    from snrgain.physics import ground, modal, quadrature
-
-    solve = getattr(modal, solver)
+    from snrgain.physics import ground, quadrature
 
     def compute():
-        mode = solve(*args)
+        from snrgain.physics import modal  # only to solve afresh: a warm cache's rank never loads it
+
+        mode = getattr(modal, solver)(*args)
         return np.zeros(0, dtype=complex) if mode is None else np.array(mode, dtype=complex)
 
-    files = (modal.__file__, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
+    modal_file = Path(ground.__file__).with_name("modal.py")  # snrgain.physics.modal's source, not imported
+    files = (modal_file, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
     key = {"version": WIRE_MODE_VERSION, "code": skycache.code_digest(*files), "solver": solver, "args": list(args)}
     kept = skycache.remembered("wiremode", key, compute)
     if kept.dtype != complex or kept.shape not in ((0,), (3,)):  # not what this code writes: solved afresh
