@@ -326,12 +326,25 @@ def choke_for_ratio(fl: FeedLine, c: Coupling, freq_hz: float, reduction: float)
 def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground):
     """(e_v, e_h): the complex port response into the receiver's load through the feed line, for unit plane waves
     of each polarization from (azimuth, elevation); |e|^2 in the units of a realized gain."""
-    from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, port_response, vertical_emf
+    from snrgain.antennas.longwire import port_response
+
+    w, currents = _sky_currents(fl, c, freq_hz, azimuth_rad, elevation_rad, ground)
+    return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in currents)
+
+
+def _sky_currents(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, phase=None):
+    """(the plane wave, (I_v, I_h)): the shield's currents at the antenna's end for unit plane waves of each
+    polarization, the run a line over the ground between its ends' loads, driven along its length and up its
+    lead (none when buried); ``phase`` the run's :func:`sky_phase` where the caller keeps it."""
+    from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, vertical_emf
 
     w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
     f_v, f_h = field_along_wire(w, fl.wire_height_m)
     lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
-    (i_v, i_h), _ = line_currents(
+    integrals = None
+    if phase is not None:
+        integrals = _line_integrals(c.line.gamma, fl.length_m, *phase)
+    currents, _ = line_currents(
         w,
         line=c.line,
         length_m=fl.length_m,
@@ -340,8 +353,9 @@ def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevati
         drive_v=-w.cos_dphi * f_v[w.inv],
         drive_h=-w.sin_dphi * f_h[w.inv],
         v_end=lead,
+        integrals=integrals,
     )
-    return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in (i_v, i_h))
+    return w, currents
 
 
 def current_scale(ref: Coupling, c: Coupling) -> complex:
@@ -369,29 +383,9 @@ def sky_gain(
     ``phase``: the run's :func:`sky_phase` on these directions where the caller keeps it (it does not depend on the
     ground or the line: a ground spread's nodes take one).  :func:`sky_response`'s arithmetic up to the currents,
     their powers then taken without the complex responses (equal to rounding)."""
-    from snrgain.antennas.longwire import (
-        above_horizon,
-        field_along_wire,
-        line_currents,
-        plane_wave,
-        vertical_emf,
-    )
+    from snrgain.antennas.longwire import above_horizon
 
-    w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
-    jkc, phase_l = sky_phase(fl, freq_hz, w) if phase is None else phase
-    f_v, f_h = field_along_wire(w, fl.wire_height_m)
-    lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
-    (i_v, i_h), _ = line_currents(
-        w,
-        line=c.line,
-        length_m=fl.length_m,
-        z_feed=c.z_end,
-        z_far=fl.station_ground_ohm,
-        drive_v=-w.cos_dphi * f_v[w.inv],
-        drive_h=-w.sin_dphi * f_h[w.inv],
-        v_end=lead,
-        integrals=_line_integrals(c.line.gamma, fl.length_m, jkc, phase_l),
-    )
+    w, (i_v, i_h) = _sky_currents(fl, c, freq_hz, azimuth_rad, elevation_rad, ground, phase)
     # the port response's |scale (-I divider)|^2 for both polarisations (snrgain.antennas.longwire.port_response)
     lam = C_M_PER_S / freq_hz
     scale2 = 4 * np.pi / lam**2 * c.load_ohm * ETA0_OHM * abs(c.divider) ** 2
