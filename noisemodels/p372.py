@@ -347,8 +347,6 @@ def _one_place(lat_rad: float, lon_rad: float, f_mhz: float, month: int, path: s
         "month": month,
         "p372": [path, size, mtime_ns],
     }
-    kept = skycache.remembered("p372blocks", key, compute)
-    if kept.dtype != float or kept.shape != (3, 6):  # not what this code writes: worked afresh
-        kept = compute()
+    kept = skycache.remembered("p372blocks", key, compute, dtype=float, shapes=((3, 6),))
     kept.flags.writeable = False
     return kept

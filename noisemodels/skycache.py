@@ -134,17 +134,23 @@ SMALL_WRITES = 64
 _small_writes: dict[str, int] = {}
 
 
-def remembered(kind: str, key: dict, compute) -> np.ndarray:
+def remembered(kind: str, key: dict, compute, *, dtype=None, shapes=None) -> np.ndarray:
     """``compute()`` (a small array: a few numbers) kept for ``key``: the stored array when a run has made it, else
     computed and stored (up to :data:`SMALL_WRITES` per kind and process; atomically, as :func:`store`, without its
     walk over the folder).  The key should name what enters the numbers and a digest of the code computing them
-    (:func:`code_digest`); a stored array of another dtype than float or complex counts as a miss."""
+    (:func:`code_digest`).  A stored array of another dtype than float or complex, or than ``dtype`` where given, or
+    of a shape not among ``shapes`` where given, counts as a miss (not what the caller writes)."""
     if not enabled():
         return np.asarray(compute())
     where = folder()
     name = key_name(kind, key)
     kept = _read(where / name)
-    if kept is not None and kept.dtype.kind in "fc":
+    if (
+        kept is not None
+        and kept.dtype.kind in "fc"
+        and (dtype is None or kept.dtype == dtype)
+        and (shapes is None or kept.shape in shapes)
+    ):
         return kept
     value = np.asarray(compute())
     if _small_writes.get(kind, 0) < SMALL_WRITES:

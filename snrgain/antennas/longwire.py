@@ -457,14 +457,19 @@ def vertical_emf(w: PlaneWave, z_low_m: float, z_high_m: float) -> np.ndarray:
     return w.c_u * (seg + w.r_v * np.conj(seg))
 
 
-def line_integrals(w: PlaneWave, g: complex, L: float):
+def line_integrals(w: PlaneWave, g: complex, L: float, *, phase=None):
     """The line's integrals of the distributed EMF (module docstring), shared by :func:`line_currents` and
-    :func:`feed_current_forms`: (jkc, e^{-2gL}, e^{-gL}, cosh and sinh scaled by e^{-gL}, e^{jkcL}, J+, J-)."""
-    jkc = 1j * w.k * w.along
+    :func:`feed_current_forms`: (jkc, e^{-2gL}, e^{-gL}, cosh and sinh scaled by e^{-gL}, e^{jkcL}, J+, J-).
+    ``phase``: (jkc, e^{jkcL}) where the caller keeps them (they depend on the directions and L alone: a feed line's
+    run over every ground, snrgain.physics.feedline.sky_phase)."""
     e2 = np.exp(-2 * g * L)
     eg = np.exp(-g * L)
     ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-    phase_l = np.exp((1j * w.k * L) * w.along)  # e^{jkcL}: the one transcendental per direction
+    if phase is None:
+        jkc = 1j * w.k * w.along
+        phase_l = np.exp((1j * w.k * L) * w.along)  # e^{jkcL}: the one transcendental per direction
+    else:
+        jkc, phase_l = phase
     decay = phase_l * eg  # e^{(jkc - g) L}
     if g.real > 0:
         j_plus = (decay - 1.0) / (jkc - g)  # e^{-gL} int e^{jkcx} e^{g(L-x)} dx

@@ -232,9 +232,9 @@ def _loop_constants(upper: tuple, lower: tuple, radius_m: float, image: float):
         "image": image,
         "segments": _SEGMENTS,
     }
-    kept = skycache.remembered("loopconst", key, lambda: np.array(_solve_loop_constants(upper, lower, radius_m, image)))
-    if kept.shape != (3,):  # not what this code writes: worked afresh
-        kept = np.array(_solve_loop_constants(upper, lower, radius_m, image))
+    kept = skycache.remembered(
+        "loopconst", key, lambda: np.array(_solve_loop_constants(upper, lower, radius_m, image)), shapes=((3,),)
+    )
     return float(kept[0]), float(kept[1]), float(kept[2])
 
 

@@ -158,10 +158,7 @@ def _remembered_current(key: tuple, n: int, solve) -> np.ndarray:
         "pulses": n,
         "kernel_points": _KERNEL_POINTS,
     }
-    current = skycache.remembered("wirecurrent", disk_key, solve)
-    if current.dtype != complex or current.shape != (n,):  # not what this code writes: solved afresh
-        current = solve()
-    return current
+    return skycache.remembered("wirecurrent", disk_key, solve, dtype=complex, shapes=((n,),))
 
 
 def _solve_current(freq_hz: float, height_m: float, radius_m: float, image: complex, n: int) -> np.ndarray:

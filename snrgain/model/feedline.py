@@ -414,26 +414,20 @@ def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
 
 def _route_key(fl) -> tuple:
     """What a route's current through a unit coupling depends on besides the source: the run, its cable (the
-    shield's line) and the station's ground (kept on the FeedLine, which is frozen)."""
-    key = fl.__dict__.get("_route_key")
-    if key is None:
-        key = (
-            fl.start_m,
-            fl.end_m,
-            fl.height_m,
-            fl.depth_m,
-            fl.braid_radius_m,
-            fl.jacket_radius_m,
-            fl.station_ground_ohm,
-        )
-        object.__setattr__(fl, "_route_key", key)
-    return key
+    shield's line) and the station's ground."""
+    return (fl.start_m, fl.end_m, fl.height_m, fl.depth_m, fl.braid_radius_m, fl.jacket_radius_m, fl.station_ground_ohm)
+
+
+def _unit_key(route: tuple, where: tuple) -> tuple:
+    """The memo's key of a route's (:func:`_route_key`) current through a unit coupling from a placed source's
+    dipole (``where``: :func:`_source_key`)."""
+    return ("route-current", route, where)
 
 
 def _route_unit(fl, c, src, kind, freq_hz, ground) -> tuple:
     """(the unit coupling, the current through it) of a route and a placed source's dipole, kept: what
     :func:`_route_current` scales to each coupling."""
-    key = ("route-current", _route_key(fl), _source_key(src, kind, freq_hz, ground))
+    key = _unit_key(_route_key(fl), _source_key(src, kind, freq_hz, ground))
 
     def make():
         unit = phys.unit_coupling(c)
@@ -452,7 +446,7 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
     for (fl, c), route in zip(lines_, routes):
         if route in units:
             continue
-        key = ("route-current", route, where)
+        key = _unit_key(route, where)
         if key in _MEMO:
             units[route] = _MEMO.get(key, None)
         else:
@@ -472,12 +466,11 @@ def _route_currents(lines_, src, kind, freq_hz, ground) -> np.ndarray:
 
 def port_amplitudes(freq_hz: float, currents, loads_ohm) -> np.ndarray:
     """:func:`port_amplitude` of each current [A] (N,) in its load [ohm] (N,)."""
-    from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
+    from snrgain.antennas.longwire import port_response
 
-    # snrgain.antennas.longwire.port_response at the horizon (elevation 0, where it is not zeroed), its arithmetic
-    lam = C_M_PER_S / freq_hz
-    return np.sqrt(4 * np.pi / lam**2 * np.asarray(loads_ohm, dtype=float) * ETA0_OHM * 1.0) * np.asarray(
-        currents, dtype=complex
+    currents = np.asarray(currents, dtype=complex)
+    return port_response(
+        freq_hz, currents, load_ohm=np.asarray(loads_ohm, dtype=float), elevation_rad=np.zeros(len(currents))
     )
 
 

@@ -600,20 +600,6 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
     return _Plan(src, freq_hz, reference_m, ground, kind, todo, compact, extra)
 
 
-def _variants_place(first, src, freq_hz: float, reference_m) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(feeds (1, 2), unit vector, samples) of the wires :func:`_load_variant_powers` hears together before a source
-    (kept in :data:`_PLACES` by their group: the same for every resistor and ground; read-only arrays)."""
-    feeds = np.atleast_2d(antenna_point(first, reference_m))
-    b = first.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    to_src = np.asarray(src.position_m) - feeds[0]
-    closest = float(np.hypot(*(to_src - np.clip(to_src @ u, 0.0, first.length_m) * u)))
-    x = wire_grid(first, src, freq_hz, closest)
-    for v in (feeds, u):
-        v.flags.writeable = False
-    return feeds, u, x
-
-
 _PLACES = Memo(1024)
 """A long wire's place before a placed source (:func:`_wire_place`), by its geometry, the source and the frequency:
 the same at every ground of a spread and for every resistor a termination search tries."""
@@ -621,7 +607,8 @@ the same at every ground of a spread and for every resistor a termination search
 
 def _wire_place(a, point, src, freq_hz: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(feeds (1, 2), unit vector along the wire, its samples :func:`wire_grid`) of a long wire standing at ``point``
-    before a placed source (read-only arrays)."""
+    before a placed source (read-only arrays): a wire's own (:func:`_prefetch_plan`), or the first of the wires
+    :func:`_load_variant_powers` hears together (the same for every resistor and ground)."""
     feeds = np.atleast_2d(np.asarray(point, dtype=float))
     b = a.bearing_rad
     u = np.array([np.sin(b), np.cos(b)])
@@ -1314,7 +1301,9 @@ def _load_variant_powers(antennas, src, freq_hz: float, reference_m, ground, p: 
         wires = [antennas[k] for k in ks]
         first = wires[0]
         where = ("variants", group, _source_key(src, None), float(freq_hz))
-        feeds, u, x = _PLACES.get(where, lambda first=first: _variants_place(first, src, freq_hz, reference_m))
+        feeds, u, x = _PLACES.get(
+            where, lambda first=first: _wire_place(first, antenna_point(first, reference_m), src, freq_hz)
+        )
         loads = np.array([w.receiver_load_ohm(freq_hz) for w in wires])
         el = np.full(len(wires), src.elevation_rad)
         total = np.zeros(len(wires))

@@ -405,20 +405,19 @@ class TerminationScore:
                 if np.any(np.abs(fitted - a) > self.AMPLITUDE_RTOL * np.max(np.abs(a)) + 1e-300):
                     return None
                 out[src.name, kind] = (coef[0], coef[1])
-        self.amplitudes = out
-        if not self._close(self._placed(five, own=self._own_amplitudes(five, probes)), placed_t):
-            self.amplitudes = None
+        if not self._close(self._placed(five, own=self._own_amplitudes(five, probes, out)), placed_t):
             return None
         return out
 
-    def _own_amplitudes(self, variants, probes) -> dict:
+    def _own_amplitudes(self, variants, probes, amplitudes=None) -> dict:
         """(source name, kind) -> (variants, 2) complex: the variants' own amplitudes from the form (``probes``:
-        their probe responses)."""
+        their probe responses; ``amplitudes`` the form's (A, B), by default the one fitted)."""
         r_mid, _, delta, _, _, _ = self.model
         rs = np.array([_resistor(v) for v in variants])
         x = rs / r_mid
         scale = np.asarray(probes, dtype=complex) / (1 + rs * delta)
-        return {key: scale[:, None] * (a[None, :] + x[:, None] * b[None, :]) for key, (a, b) in self.amplitudes.items()}
+        forms = self.amplitudes if amplitudes is None else amplitudes
+        return {key: scale[:, None] * (a[None, :] + x[:, None] * b[None, :]) for key, (a, b) in forms.items()}
 
 
 def _resistor(ant) -> float:

@@ -355,7 +355,7 @@ def _sky_grid(comp, az_edges, el_edges, weights: dict | None = None):
 
     ``weights``: a dict kept between the components of one figure, holding the grid's interpolation pixels and
     weights by HEALPix resolution (the same for every component of that resolution)."""
-    from noisemodels.sphere import direction_to_pixel, interpolation_weights, mirror_pixels, to_healpy_angles
+    from noisemodels.sphere import direction_to_pixel, mirror_pixels
 
     d = comp.directions
     full = np.zeros(12 * d.nside * d.nside)
@@ -365,12 +365,19 @@ def _sky_grid(comp, az_edges, el_edges, weights: dict | None = None):
     shape = (el_edges.size - 1, az_edges.size - 1)
     weights = {} if weights is None else weights
     if d.nside not in weights:
-        az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
-        el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
-        A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
-        weights[d.nside] = interpolation_weights(d.nside, *to_healpy_angles(A.ravel(), E.ravel()))
+        weights[d.nside] = _grid_weights(d.nside, az_edges, el_edges)
     pix, wgt = weights[d.nside]
     return np.sum(wgt * full[pix], axis=0).reshape(shape)
+
+
+def _grid_weights(nside: int, az_edges, el_edges):
+    """(pixels, weights) of the bilinear interpolation (noisemodels.sphere) at the centres of the az/el cells."""
+    from noisemodels.sphere import interpolation_weights, to_healpy_angles
+
+    az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
+    el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
+    A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
+    return interpolation_weights(nside, *to_healpy_angles(A.ravel(), E.ravel()))
 
 
 def _sky_edges() -> tuple[np.ndarray, np.ndarray]:
@@ -386,15 +393,8 @@ _SKY_WEIGHTS: dict = {}
 def prepare_sky(nside: int) -> None:
     """Make the interpolation weights of :func:`noise_sky`'s grid at ``nside`` ahead (they need no results: the
     figures' process makes them while the command evaluates, :meth:`snrgain.outputs.drawing.Drawer.prepare`)."""
-    from noisemodels.sphere import interpolation_weights, to_healpy_angles
-
-    if nside in _SKY_WEIGHTS:
-        return
-    az_edges, el_edges = _sky_edges()
-    az_c = 0.5 * (az_edges[1:] + az_edges[:-1])
-    el_c = 0.5 * (el_edges[1:] + el_edges[:-1])
-    A, E = np.meshgrid(np.radians(az_c), np.radians(el_c))
-    _SKY_WEIGHTS[nside] = interpolation_weights(nside, *to_healpy_angles(A.ravel(), E.ravel()))
+    if nside not in _SKY_WEIGHTS:
+        _SKY_WEIGHTS[nside] = _grid_weights(nside, *_sky_edges())
 
 
 def sky_moment(results) -> tuple[int, int]:

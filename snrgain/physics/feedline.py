@@ -336,14 +336,12 @@ def _sky_currents(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevat
     """(the plane wave, (I_v, I_h)): the shield's currents at the antenna's end for unit plane waves of each
     polarization, the run a line over the ground between its ends' loads, driven along its length and up its
     lead (none when buried); ``phase`` the run's :func:`sky_phase` where the caller keeps it."""
-    from snrgain.antennas.longwire import field_along_wire, line_currents, plane_wave, vertical_emf
+    from snrgain.antennas.longwire import field_along_wire, line_currents, line_integrals, plane_wave, vertical_emf
 
     w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
     f_v, f_h = field_along_wire(w, fl.wire_height_m)
     lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
-    integrals = None
-    if phase is not None:
-        integrals = _line_integrals(c.line.gamma, fl.length_m, *phase)
+    integrals = None if phase is None else line_integrals(w, c.line.gamma, fl.length_m, phase=phase)
     currents, _ = line_currents(
         w,
         line=c.line,
@@ -400,22 +398,6 @@ def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarra
     return jkc, np.exp((1j * wave.k * fl.length_m) * wave.along)
 
 
-def _line_integrals(g: complex, L: float, jkc, phase_l):
-    """snrgain.antennas.longwire.line_integrals from the run's :func:`sky_phase` (the same arithmetic)."""
-    from snrgain.antennas.longwire import safe_expint
-
-    e2 = np.exp(-2 * g * L)
-    eg = np.exp(-g * L)
-    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
-    decay = phase_l * eg
-    if g.real > 0:
-        j_plus = (decay - 1.0) / (jkc - g)
-    else:
-        j_plus = safe_expint(jkc - g, L)
-    j_minus = (decay - e2) / (jkc + g)
-    return jkc, e2, eg, ch, sh, phase_l, j_plus, j_minus
-
-
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None, closest_at_m=None) -> np.ndarray:
     """Distances along the run [m]: even steps as many as :func:`snrgain.physics.reciprocity.sample_steps` gives
     for a source whose closest approach is ``closest_m`` (the shield's own line's ``line_gamma`` counted when given),
@@ -428,22 +410,15 @@ def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=Non
 
 def route_points(fl: FeedLine, x) -> tuple[np.ndarray, np.ndarray]:
     """The points (N, 2) [m] and heights (N,) [m] :func:`route_emf` takes the field at: the run's samples ``x``,
-    then (a raised run) :data:`LEAD_POINTS` Gauss-Legendre points up the antenna end's lead and the station's."""
-    b = fl.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    pts = np.asarray(fl.start_m, dtype=float)[None, :] + np.asarray(x)[:, None] * u[None, :]
-    heights = np.full(len(pts), fl.wire_height_m)
-    if fl.buried:
-        return pts, heights
-    t, _ = gauss_legendre(LEAD_POINTS)
-    zs = (t + 1) * fl.wire_height_m / 2
-    ends = np.array([pts[0], pts[-1]])
-    return np.vstack([pts, np.repeat(ends, LEAD_POINTS, axis=0)]), np.concatenate([heights, np.tile(zs, 2)])
+    then (a raised run) :data:`LEAD_POINTS` Gauss-Legendre points up the antenna end's lead and the station's
+    (:func:`runs_points` of one run)."""
+    return runs_points([fl], [x])
 
 
 def runs_points(fls, xs) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`route_points` of several runs (``xs`` their samples), concatenated in order: (points (N, 2), heights
-    (N,)); each run's part the same numbers, in one array."""
+    """The points [m] and heights [m] :func:`route_emf` takes the field at, for several runs (``xs`` their
+    samples) concatenated in order: each run's samples, then (a raised run) :data:`LEAD_POINTS` Gauss-Legendre
+    points up its antenna end's lead and the station's; (points (N, 2), heights (N,))."""
     t, _ = gauss_legendre(LEAD_POINTS)
     sizes = [len(x) + (0 if fl.buried else 2 * LEAD_POINTS) for fl, x in zip(fls, xs)]
     pts, heights = np.empty((sum(sizes), 2)), np.empty(sum(sizes))
@@ -466,8 +441,8 @@ def runs_points(fls, xs) -> tuple[np.ndarray, np.ndarray]:
 
 
 def runs_emf_from(fls, xs, e) -> list:
-    """:func:`route_emf_from` of several runs from the field ``e`` at :func:`runs_points`' points: [(x, EMF, lead
-    EMFs)] of each."""
+    """:func:`route_emf` of several runs from the field ``e`` (N, 3) already worked at :func:`runs_points`' points:
+    [(x, the EMF per metre along the run, the EMFs up its two leads)] of each."""
     _, wq = gauss_legendre(LEAD_POINTS)
     out = []
     i = 0
@@ -495,16 +470,9 @@ def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gam
 
 
 def route_emf_from(fl: FeedLine, x, e):
-    """:func:`route_emf` from the field ``e`` (N, 3) already worked at :func:`route_points` of the samples ``x``."""
-    b = fl.bearing_rad
-    u = np.array([np.sin(b), np.cos(b)])
-    n = len(x)
-    emf = e[:n, 0] * u[0] + e[:n, 1] * u[1]
-    if fl.buried:
-        return x, emf, np.zeros(2, dtype=complex)
-    _, wq = gauss_legendre(LEAD_POINTS)
-    lead = (e[n:, 2].reshape(2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
-    return x, emf, lead
+    """:func:`route_emf` from the field ``e`` (N, 3) already worked at :func:`route_points` of the samples ``x``
+    (:func:`runs_emf_from` of one run)."""
+    return runs_emf_from([fl], [x], e)[0]
 
 
 def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:

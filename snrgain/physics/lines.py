@@ -321,9 +321,7 @@ def _mode(solver: str, *args):
     modal_file = Path(ground.__file__).with_name("modal.py")  # snrgain.physics.modal's source, not imported
     files = (modal_file, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
     key = {"version": WIRE_MODE_VERSION, "code": skycache.code_digest(*files), "solver": solver, "args": list(args)}
-    kept = skycache.remembered("wiremode", key, compute)
-    if kept.dtype != complex or kept.shape not in ((0,), (3,)):  # not what this code writes: solved afresh
-        kept = compute()
+    kept = skycache.remembered("wiremode", key, compute, dtype=complex, shapes=((0,), (3,)))
     return None if kept.size == 0 else tuple(complex(v) for v in kept)
 
 

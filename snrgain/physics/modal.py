@@ -357,6 +357,8 @@ def wire_over_earth(
     gamma_start: complex,
     insulation_radius_m: float | None = None,
     insulation_permittivity: float = 1.0,
+    *,
+    newton: bool = True,
 ) -> tuple[complex, complex, complex] | None:
     """(gamma [1/m], Z' [ohm/m], Y' [S/m]) of the exact mode (module docstring), cached by its arguments; None
     where the iteration does not settle: over a nearly lossless ground (loss tangent below about 0.01) the mode
@@ -372,62 +374,8 @@ def wire_over_earth(
     axis at height b.
 
     The root is found by Newton's method with the slopes of the earth integrals taken on the same nodes
-    (:func:`_settle`); :func:`wire_over_earth_secant` is the secant's path alone, the reference the tests hold it
-    to."""
-    return _wire_mode(
-        freq_hz,
-        height_m,
-        radius_m,
-        permittivity,
-        conductivity_s_per_m,
-        z_internal,
-        gamma_start,
-        insulation_radius_m,
-        insulation_permittivity,
-        newton=True,
-    )
-
-
-def wire_over_earth_secant(
-    freq_hz: float,
-    height_m: float,
-    radius_m: float,
-    permittivity: float,
-    conductivity_s_per_m: float,
-    z_internal: complex,
-    gamma_start: complex,
-    insulation_radius_m: float | None = None,
-    insulation_permittivity: float = 1.0,
-) -> tuple[complex, complex, complex] | None:
-    """:func:`wire_over_earth` closing in by the secant method and finishing on the fine rule (no Newton steps,
-    no check rule, not cached): the slower path its answers are checked against."""
-    return _wire_mode(
-        freq_hz,
-        height_m,
-        radius_m,
-        permittivity,
-        conductivity_s_per_m,
-        z_internal,
-        gamma_start,
-        insulation_radius_m,
-        insulation_permittivity,
-        newton=False,
-    )
-
-
-def _wire_mode(
-    freq_hz,
-    height_m,
-    radius_m,
-    permittivity,
-    conductivity_s_per_m,
-    z_internal,
-    gamma_start,
-    insulation_radius_m,
-    insulation_permittivity,
-    *,
-    newton: bool,
-):
+    (:func:`_settle`); ``newton=False`` takes the secant's path alone (:func:`wire_over_earth_secant`), the
+    reference the tests hold it to."""
     omega = 2 * np.pi * freq_hz
     k0 = omega / C_M_PER_S
     n2 = complex_permittivity(freq_hz, permittivity, conductivity_s_per_m)
@@ -437,6 +385,14 @@ def _wire_mode(
     edges = _earth_edges(-(complex(gamma_start) ** 2 + k0**2), k0, height_m, n2)
     coarse = _rule_on(edges, COARSE_NODES, rho)
 
+    z_scale = 1j * omega * MU0_H_PER_M / (2 * np.pi)
+    y_scale = 2j * np.pi * omega * EPS0_F_PER_M
+
+    def series_shunt(lam, p, q):
+        """(Z', Y', Y''s denominator) from the image term and the earth integrals."""
+        shunt = lam + layer / insulation_permittivity + q
+        return complex(z_internal + z_scale * (lam + layer + 2 * p)), complex(y_scale / shunt), shunt
+
     def step(gamma, nodes):
         if nodes == COARSE_NODES:  # the secant closing in: one rule for every step
             p, q = _earth_on(coarse, gamma, k0, height_m, n2)
@@ -444,26 +400,25 @@ def _wire_mode(
             p, q = _earth_on(_rule_on(edges, nodes, rho), gamma, k0, height_m, n2)
         else:
             p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho, nodes=nodes)
-        lam = _image_term(gamma, k0, b, height_m)
-        z = z_internal + 1j * omega * MU0_H_PER_M / (2 * np.pi) * (lam + layer + 2 * p)
-        y = 2j * np.pi * omega * EPS0_F_PER_M / (lam + layer / insulation_permittivity + q)
-        return _forward(z * y), complex(z), complex(y)
-
-    z_scale = 1j * omega * MU0_H_PER_M / (2 * np.pi)
-    y_scale = 2j * np.pi * omega * EPS0_F_PER_M
+        z, y, _ = series_shunt(_image_term(gamma, k0, b, height_m), p, q)
+        return _forward(z * y), z, y
 
     def step_slope(gamma):
         p, q, dp, dq = _earth_sums(coarse, gamma, k0, height_m, n2, slopes=True)
         lam, dlam = _image_slope(gamma, k0, b, height_m)
-        z = complex(z_internal + z_scale * (lam + layer + 2 * p))
-        shunt = lam + layer / insulation_permittivity + q
-        y = complex(y_scale / shunt)
+        z, y, shunt = series_shunt(lam, p, q)
         g = _forward(z * y)
         dz = z_scale * (dlam + 2 * dp)
         dy = -y * (dlam + dq) / shunt
         return g, (dz * y + z * dy) / (2 * g)
 
     return _settle(step, complex(gamma_start), 1e-12, 80, step_slope if newton else None)
+
+
+def wire_over_earth_secant(*args, **kwargs) -> tuple[complex, complex, complex] | None:
+    """:func:`wire_over_earth` (the same arguments) closing in by the secant method and finishing on the fine rule
+    (no Newton steps, no check rule, not cached): the slower path its answers are checked against."""
+    return wire_over_earth.__wrapped__(*args, **kwargs, newton=False)
 
 
 def buried_integrals(

@@ -443,14 +443,17 @@ def _field_along(tx: TxVertical, freq_hz: float, pts, heights) -> np.ndarray:
         return _field_along_now(tx, freq_hz, pts, heights)
     key = (
         "along",
-        _params_json(tx.vertical.params),
-        tuple(map(float, tx.position_m)),
-        float(tx.radius_m),
-        float(freq_hz),
+        *_standing_key(tx, freq_hz),
         pts.tobytes(),
         heights.tobytes(),
     )
     return _ALONG.get(key, lambda: _field_along_now(tx, freq_hz, pts, heights))
+
+
+def _standing_key(tx: TxVertical, freq_hz: float) -> tuple:
+    """What the vertical's field at given places depends on: the vertical, where it stands, its radius, the
+    frequency (the start of the memo keys of its field along wires and at compact parts)."""
+    return (_params_json(tx.vertical.params), tuple(map(float, tx.position_m)), float(tx.radius_m), float(freq_hz))
 
 
 _ALONG = Memo(64)
@@ -506,10 +509,7 @@ def _field_along_wire(tx: TxVertical, freq_hz: float, pts, height_m: float, u: n
         return now()
     key = (
         "along the wire",
-        _params_json(tx.vertical.params),
-        tuple(map(float, tx.position_m)),
-        float(tx.radius_m),
-        float(freq_hz),
+        *_standing_key(tx, freq_hz),
         float(height_m),
         u.tobytes(),
         pts.tobytes(),
@@ -577,10 +577,7 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     # what wire_emfs reads of the wire: its length, height and leads (every resistor tried takes the same EMFs)
     key = (
         "wire emfs",
-        _params_json(tx.vertical.params),
-        tuple(map(float, tx.position_m)),
-        float(tx.radius_m),
-        float(freq_hz),
+        *_standing_key(tx, freq_hz),
         float(wire.length_m),
         float(wire.wire_height_m()),
         bool(wire.has_leads),
@@ -648,10 +645,7 @@ def _field_on(part, tx: TxVertical, freq_hz: float, points) -> np.ndarray:
 
     key = (
         "field on",
-        _params_json(tx.vertical.params),
-        tuple(map(float, tx.position_m)),
-        float(tx.radius_m),
-        float(freq_hz),
+        *_standing_key(tx, freq_hz),
         points.shape,
         points.tobytes(),
         float(z),
