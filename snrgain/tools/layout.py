@@ -218,6 +218,29 @@ class Problem:
             hit = self._sky[key] = (ant, p)
         return hit
 
+    def unheard_products(self, ant):
+        """Products of [reference, ``ant``] with no placed source heard by ``ant`` (its power NaN: to be worked
+        where it stands, with its other places): its gains and its sky temperatures (the placed sources' rows
+        through the reference's pattern, each antenna's share of them set by :func:`snrgain.model.products.products`
+        from the powers), the reference's as ``self.ref`` holds them.  What ``products(known=...)`` of the design at
+        many places takes from them, so the first place's pickup is not worked on its own."""
+        from snrgain.model import snr
+        from snrgain.model.products import Products
+
+        ref = self.ref
+        g = snr.antenna_gains([ant], self.sc.freq_hz, self.grid, self.sc.targets)
+        gains = snr.Gains(
+            [ref.gains.caches[0], g.caches[0]],
+            np.concatenate([ref.gains.toward[:1], g.toward]),
+            np.concatenate([ref.gains.mean[:1], g.mean]),
+        )
+        names = [s.name for s in self.placed]
+        temps = snr.sky_temperatures(gains, self.skies, pickup={n: np.ones(2) for n in names})
+        by = temps.by_component.copy()
+        by[:, 0] = ref.temps.by_component[:, 0]  # the placed sources' rows with the reference's own share
+        powers = {n: np.array([ref.powers[n][0], np.nan]) for n in names}
+        return Products((ref.antennas[0], ant), gains, snr.Temperatures(by, by.sum(axis=0)), powers, ref.ground)
+
     @staticmethod
     def _key(i: int, bearing_rad: float | None, length_m: float | None) -> tuple:
         """The key of a (bearing, length) of candidate i in the designs already made."""
@@ -239,11 +262,20 @@ class Problem:
         if self.switched[i]:
             return self.switched_gains_db(designs, i, exact=exact)
         d0 = designs[0]
-        if len(designs) == 1 and self._key(i, d0.bearing_rad, d0.length_m) not in self._sky:
+        key = self._key(i, d0.bearing_rad, d0.length_m)
+        fresh = key not in self._sky
+        if len(designs) == 1 and fresh:
             # One new design at one place (the refinement's steps): its products made once where it stands, not
             # first unplaced (a placed source's pickup worked for nothing) and then placed.
             ants = [self.antenna(i, d0.bearing_rad, d0.length_m).at((d0.east_m, d0.north_m))]
             known = self.ref
+        elif fresh:
+            # A new design at many places (the grid's, a refinement's stencil): its gains and sky temperatures made
+            # once (:meth:`unheard_products`), the placed sources heard at every place in one batch, the first place
+            # too (not on its own first); the products kept for the design's next places.
+            ant0 = self.antenna(i, d0.bearing_rad, d0.length_m).at((d0.east_m, d0.north_m))
+            ants = [ant0] + [ant0.at((d.east_m, d.north_m)) for d in designs[1:]]
+            known = self.unheard_products(ant0)
         else:
             ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m, at_m=(d0.east_m, d0.north_m))
             # the antenna the design's products were made with, where it stands: its pickup is taken from them
@@ -256,6 +288,8 @@ class Problem:
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         with tabled():  # the search's own scores: the source's field read from its tables at every place
             p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+        if fresh and len(designs) > 1:
+            self._sky[key] = (ants[0], p)
         gains = _statistic(sub, pipeline.snr_gains(sub, p), self.target[i][0])[1:]
         return gains - self.tx_costs_db(ants)
 
