@@ -583,6 +583,7 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
                 assert canvas._MEASURED and (canvas._LAID_OUT and canvas._HEIGHTS or not canvas._LAYOUTS)
                 assert backend_svg.RendererSVG is canvas.RememberingSVGRenderer
                 assert [drawing.figure_bytes(make(), "svg", **svg) for make in makers] == plain_svg
+                assert canvas._GLYPHS and canvas._OUTLINES  # the SVG writer's glyphs, found once
             finally:
                 canvas.remember_text(was)
         assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas
