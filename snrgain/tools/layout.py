@@ -219,27 +219,11 @@ class Problem:
         return hit
 
     def unheard_products(self, ant):
-        """Products of [reference, ``ant``] with no placed source heard by ``ant`` (its power NaN: to be worked
-        where it stands, with its other places): its gains and its sky temperatures (the placed sources' rows
-        through the reference's pattern, each antenna's share of them set by :func:`snrgain.model.products.products`
-        from the powers), the reference's as ``self.ref`` holds them.  What ``products(known=...)`` of the design at
-        many places takes from them, so the first place's pickup is not worked on its own."""
-        from snrgain.model import snr
-        from snrgain.model.products import Products
+        """Products of [reference, ``ant``] with no placed source heard by ``ant`` yet (its powers NaN: worked where
+        it stands, with its other places); :func:`snrgain.model.products.unheard`."""
+        from snrgain.model.products import unheard
 
-        ref = self.ref
-        g = snr.antenna_gains([ant], self.sc.freq_hz, self.grid, self.sc.targets)
-        gains = snr.Gains(
-            [ref.gains.caches[0], g.caches[0]],
-            np.concatenate([ref.gains.toward[:1], g.toward]),
-            np.concatenate([ref.gains.mean[:1], g.mean]),
-        )
-        names = [s.name for s in self.placed]
-        temps = snr.sky_temperatures(gains, self.skies, pickup={n: np.ones(2) for n in names})
-        by = temps.by_component.copy()
-        by[:, 0] = ref.temps.by_component[:, 0]  # the placed sources' rows with the reference's own share
-        powers = {n: np.array([ref.powers[n][0], np.nan]) for n in names}
-        return Products((ref.antennas[0], ant), gains, snr.Temperatures(by, by.sum(axis=0)), powers, ref.ground)
+        return unheard(self.sc, ant, self.grid, self.skies, self.ref, [s.name for s in self.placed])
 
     @staticmethod
     def _key(i: int, bearing_rad: float | None, length_m: float | None) -> tuple:
