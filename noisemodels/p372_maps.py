@@ -193,6 +193,21 @@ def load_month(month: int, data_dir: str | Path | None = None) -> AtmosphericCoe
     return _cached(str(path), int(month), mtime)
 
 
+@lru_cache(maxsize=64)
+def _resolved(path_text: str) -> str:
+    return str(Path(path_text).resolve())
+
+
+def month_source(month: int, data_dir: str | Path | None = None) -> tuple[str, int, int]:
+    """(path with links resolved, size, modification time [ns]) of a month's coefficient file: what the persistent
+    cache's keys hold of it.  Raises OSError (no such file), ValueError (no such month) or P372DataError (no
+    folder).  The resolved path is kept per path in this process (a sky resolves one file per month and hour, each
+    a walk over the path's folders); the size and time are read every call."""
+    path = _resolved(str(month_file(resolve_data_dir(data_dir), month)))
+    st = os.stat(path)
+    return path, int(st.st_size), int(st.st_mtime_ns)
+
+
 CHECKED_VERSION = 1
 """Part of the persistent cache's key of :func:`check_month`'s record of a file read cleanly."""
 
