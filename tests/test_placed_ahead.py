@@ -78,3 +78,26 @@ def test_the_other_wires_worked_ahead_give_what_each_termination_search_works(mo
     a, b = _numbers(ahead), _numbers(alone)
     assert len(a) == len(b)
     np.testing.assert_allclose(a, b, rtol=1e-9, atol=1e-9)
+
+
+@pytest.mark.parametrize("family, spec", [("beverage", {"length": 200.0, "height": 2.0}), ("bog", {"length": 90.0})])
+def test_a_wires_place_is_shared_over_grounds_only_where_its_line_leaves_the_samples_alone(family, spec):
+    # placed._PLACES keeps a wire's samples before a source without its line where the line's own wavelength does not
+    # set the step (placed._line_step None): then every ground's samples are the same; a wire on the soil (a slow
+    # line) keeps its line in the key
+    from snrgain.antennas import from_si
+    from snrgain.sky.noise import LocalSource
+
+    f = 1.83e6
+    src = LocalSource("s", 0.0, position_m=(300.0, 900.0), height_m=3.0, polarisation="vertical")
+    grounds = ["very dry ground", "moist loam", "salt marsh"]
+    wires = [from_si(family, bearing=0.3, ground=g, position=(0.0, 0.0), **spec) for g in grounds]
+    steps = [placed._line_step(complex(w.line(f).gamma), f) for w in wires]
+    grids = [placed.wire_grid(w, src, f, 800.0) for w in wires]
+    free = [g for step, g in zip(steps, grids) if step is None]
+    for g in free[1:]:
+        np.testing.assert_array_equal(g, free[0])
+    if family == "beverage":
+        assert len(free) == len(grounds)
+    else:  # over the wetter grounds the slow line sets the step
+        assert len(free) < len(grounds) and len({len(g) for g in grids}) > 1
