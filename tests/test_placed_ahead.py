@@ -101,3 +101,23 @@ def test_a_wires_place_is_shared_over_grounds_only_where_its_line_leaves_the_sam
         assert len(free) == len(grounds)
     else:  # over the wetter grounds the slow line sets the step
         assert len(free) < len(grounds) and len({len(g) for g in grids}) > 1
+
+
+@pytest.mark.parametrize("kind", ["vertical", "horizontal"])
+def test_the_near_fields_mixed_geometry_gives_the_point_by_point_interpolation(kind):
+    # a wire's points at its height beside a compact antenna's segments, each at its own height: the wire's take the
+    # table interpolated to their height first ("mixed"), the segments the tensor stencil; the same interpolating
+    # polynomial as every point through the tensor stencil, summed in another order
+    rng = np.random.default_rng(7)
+    tab = halfspace.table(1.83e6, complex(13.0, -49.0), kind, 1000.0, 32.0)
+    rho = np.concatenate([np.linspace(3.0, 400.0, 600), rng.uniform(1.0, 300.0, 40)])
+    zeta = np.concatenate([np.full(600, 4.3), rng.uniform(0.5, 20.0, 40)])
+    g = halfspace._geometry(tab.k0, len(tab.s), len(tab.zeta), rho, zeta)
+    assert g[0] == "mixed" and len(g[1]) == 600
+    i0, ti = halfspace._stencil(np.arcsinh(rho / halfspace.RHO_SCALE_M) / halfspace.S_STEP, len(tab.s))
+    r = np.hypot(rho, zeta)
+    phase = np.exp(-1j * tab.k0 * r) / np.maximum(r, 1.0)
+    points = halfspace._points_geometry(zeta, i0, ti, phase, len(tab.zeta))
+    every = halfspace._remainders_at([tab], points)[0]
+    got = tab.remainder(rho, zeta)
+    np.testing.assert_allclose(got, every, rtol=0, atol=1e-13 * np.max(np.abs(every)))
