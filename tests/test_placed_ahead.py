@@ -121,3 +121,18 @@ def test_the_near_fields_mixed_geometry_gives_the_point_by_point_interpolation(k
     every = halfspace._remainders_at([tab], points)[0]
     got = tab.remainder(rho, zeta)
     np.testing.assert_allclose(got, every, rtol=0, atol=1e-13 * np.max(np.abs(every)))
+
+
+def test_a_spreads_grounds_worked_ahead_are_not_planned_again_by_their_pickups(monkeypatch):
+    # placed.fields_ahead works every other ground's EMFs, amplitudes and routes at once and says so
+    # (placed._WORKED_AHEAD); each ground's pickup then skips its own prefetch (the results: test_feedline's
+    # test_a_ground_spread_works_every_grounds_field_at_once_to_the_same_results)
+    text = _bench().scenario(sources=True, feed_lines=False, compact=False).replace("months = [12, 1]", "months = [1]")
+    grounds = []
+    prefetch = placed._prefetch_wire_emfs
+    monkeypatch.setattr(placed, "_prefetch_wire_emfs", lambda *a, **kw: grounds.append(a[4]) or prefetch(*a, **kw))
+    forget()
+    halfspace.forget_geometry()
+    snrgain.evaluate(text)
+    assert len(placed._WORKED_AHEAD) == 8 * 5  # the spread's eight other grounds, five sources
+    assert grounds and len({id(g) for g in grounds}) == 1  # the pickups' own prefetches: the site's ground alone

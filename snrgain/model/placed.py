@@ -373,6 +373,8 @@ def fields_ahead(sc, per_ground) -> None:
                 p = _known_by_groups(antennas)
                 routes = feedline.route_points_ahead(sc, antennas, src, kind, f, ground)
                 plan = _prefetch_plan(antennas, src, f, ref_m, ground, kind, p, extra=routes)
+                done = _ahead_key(antennas, src, kind, ground, f)
+                _WORKED_AHEAD.get(done, lambda antennas=antennas: tuple(antennas))
                 if plan is None:
                     continue
                 q, z = plan.points()
@@ -382,6 +384,15 @@ def fields_ahead(sc, per_ground) -> None:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
                 for plan, part in zip(plans, e):
                     _prefetch_keep(plan, part)
+
+
+_WORKED_AHEAD = Memo(256)
+"""What :func:`fields_ahead` worked ahead (:func:`_ahead_key`), held with the antennas so their ids stay their own:
+:func:`pickup` then skips its own prefetch for them (its memos hold what it would work)."""
+
+
+def _ahead_key(antennas, src, kind: str, ground, freq_hz: float) -> tuple:
+    return (tuple(id(a) for a in antennas), _source_key(src, kind), _ground_key(ground), float(freq_hz))
 
 
 def _known_by_groups(antennas) -> np.ndarray:
@@ -1176,6 +1187,8 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         for kind, _ in dipoles(src):
             from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
 
+            if not others and _ahead_key(antennas, src, kind, ground, sc.freq_hz) in _WORKED_AHEAD:
+                continue  # fields_ahead worked it (a spread's other grounds)
             ahead = others
             if others:  # once per source for the same other wires (a layout asking place after place)
                 key = (tuple(id(a) for a in others), _source_key(src, kind), _ground_key(ground), float(sc.freq_hz))
