@@ -373,6 +373,8 @@ def fields_ahead(sc, per_ground) -> None:
                 p = _known_by_groups(antennas)
                 routes = feedline.route_points_ahead(sc, antennas, src, kind, f, ground)
                 plan = _prefetch_plan(antennas, src, f, ref_m, ground, kind, p, extra=routes)
+                done = _ahead_key(antennas, src, kind, ground, f)
+                _WORKED_AHEAD.get(done, lambda antennas=antennas: tuple(antennas))
                 if plan is None:
                     continue
                 q, z = plan.points()
@@ -382,6 +384,15 @@ def fields_ahead(sc, per_ground) -> None:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
                 for plan, part in zip(plans, e):
                     _prefetch_keep(plan, part)
+
+
+_WORKED_AHEAD = Memo(256)
+"""What :func:`fields_ahead` worked ahead (:func:`_ahead_key`), held with the antennas so their ids stay their own:
+:func:`pickup` then skips its own prefetch for them (its memos hold what it would work)."""
+
+
+def _ahead_key(antennas, src, kind: str, ground, freq_hz: float) -> tuple:
+    return (tuple(id(a) for a in antennas), _source_key(src, kind), _ground_key(ground), float(freq_hz))
 
 
 def _known_by_groups(antennas) -> np.ndarray:
@@ -591,7 +602,9 @@ def _prefetch_plan(
         if geometry in seen:
             continue
         seen.add(geometry)
-        place = (geometry, _source_key(src, kind), float(freq_hz))
+        # the line enters the samples only where its own wavelength sets the step (a wire on the soil): an
+        # overhead wire's place is the same over every ground of a spread
+        place = (geometry[:-1], _line_step(geometry[-1], freq_hz), _source_key(src, kind), float(freq_hz))
         feeds, u, x = _PLACES.get(place, lambda a=a, point=point: _wire_place(a, point, src, freq_hz))
         if len(x) >= least:
             continue
@@ -599,7 +612,8 @@ def _prefetch_plan(
         if key in _EMFS or key in seen:
             continue
         seen.add(key)
-        todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u), k < own))
+        points = _POINTS.get(place, lambda a=a, feeds=feeds, x=x, u=u: _read_only(_emf_points(a, feeds, x, u)))
+        todo.append((key, a, feeds, x, u, points, k < own))
     compact = _compact_points(antennas, src, freq_hz, reference_m, ground, kind, p, seen)
     if len(todo) + len(compact) + len(extra) < 2:
         return None
@@ -609,6 +623,24 @@ def _prefetch_plan(
 _PLACES = Memo(1024)
 """A long wire's place before a placed source (:func:`_wire_place`), by its geometry, the source and the frequency:
 the same at every ground of a spread and for every resistor a termination search tries."""
+_POINTS = Memo(1024)
+"""A long wire's points before a placed source (:func:`_emf_points`), by :data:`_PLACES`' key: the same at every
+ground of a spread where the line does not set the samples."""
+
+
+def _read_only(arrays: tuple) -> tuple:
+    for v in arrays:
+        v.flags.writeable = False
+    return arrays
+
+
+def _line_step(gamma: complex, freq_hz: float):
+    """What of a wire's line enters its samples (:func:`snrgain.physics.reciprocity.sample_steps`): its propagation
+    constant where the line's own step is shorter than free space's, else None (the samples are free space's)."""
+    from snrgain.physics.reciprocity import STEPS_PER_LINE_WAVELENGTH, STEPS_PER_WAVELENGTH
+
+    free = 2 * np.pi / (2 * np.pi * freq_hz / C_M_PER_S) / STEPS_PER_WAVELENGTH  # as sample_steps works it
+    return gamma if 2 * np.pi / abs(gamma) / STEPS_PER_LINE_WAVELENGTH < free else None
 
 
 def _wire_place(a, point, src, freq_hz: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -1155,6 +1187,8 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         for kind, _ in dipoles(src):
             from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
 
+            if not others and _ahead_key(antennas, src, kind, ground, sc.freq_hz) in _WORKED_AHEAD:
+                continue  # fields_ahead worked it (a spread's other grounds)
             ahead = others
             if others:  # once per source for the same other wires (a layout asking place after place)
                 key = (tuple(id(a) for a in others), _source_key(src, kind), _ground_key(ground), float(sc.freq_hz))
