@@ -84,6 +84,10 @@ CHECK_NODES = 48
 COARSE_NODES = 32
 """Points per piece while the secant closes in (1e-15 of the fine rule over lossy ground; only a nearly lossless
 earth, its branch point near the real axis, needs more, and the fine rule then finishes the search)."""
+STEER_NODES = (12, 24)
+"""Points per piece of Newton's first two steps (:func:`_newton`): they only steer toward the root (on the 1029 wires
+of the tests' grid where the check rule holds, 12 points leave the integrals within 1e-3 of the fine rule's, 24 within
+1e-6); the steps after them sum the coarse and the check rules together."""
 
 
 def _pair(parts, edges, adaptive: bool, nodes: int = FINE_NODES) -> tuple[complex, complex]:
@@ -179,13 +183,45 @@ def _rule_on(edges, nodes: int, offset_m: float):
     return t * t, (half * w).ravel(), (np.cos(t * offset_m) if offset_m else None)
 
 
+def _rules_on(edges, counts: tuple[int, ...], offset_m: float):
+    """The rules of :func:`_rule_on` with ``counts`` points a piece on the same ``edges``, as one rule: (lambda^2 of all
+    their nodes, rule after rule, weights of shape (nodes, len(counts)) whose column i is rule i's (zero at the other
+    rules' nodes), cos(lambda offset) or None); one pass of :func:`_earth_sums` sums every rule, and
+    :func:`_rule_of` takes one rule out of it (the same numbers :func:`_rule_on` gives)."""
+    e = np.array(edges, dtype=float)
+    lo = e[:-1, None]
+    half = 0.5 * (e[1:, None] - lo)
+    nodes, weights = [], []
+    for n in counts:
+        x, w = gauss_legendre(n)
+        nodes.append((half * (x + 1.0) + lo).ravel())
+        weights.append((half * w).ravel())
+    t = np.concatenate(nodes)
+    split = np.zeros((t.size, len(counts)))
+    start = 0
+    for i, w in enumerate(weights):
+        split[start : start + w.size, i] = w
+        start += w.size
+    return t * t, split, (np.cos(t * offset_m) if offset_m else None)
+
+
+def _rule_of(rules, counts: tuple[int, ...], i: int):
+    """Rule i of a rule of several (:func:`_rules_on` with ``counts``), alone: as :func:`_rule_on` makes it."""
+    t2, weights, cos_offset = rules
+    pieces = t2.size // sum(counts)
+    lo = pieces * sum(counts[:i])
+    hi = lo + pieces * counts[i]
+    return t2[lo:hi], weights[lo:hi, i].copy(), (None if cos_offset is None else cos_offset[lo:hi])
+
+
 def _earth_on(rule, gamma: complex, k0: float, height_m: float, n2: complex) -> tuple[complex, complex]:
     """(P, Q) of :func:`earth_integrals` on a rule of :func:`_fixed_rule`."""
     return _earth_sums(rule, gamma, k0, height_m, n2, slopes=False)[:2]
 
 
 def _earth_sums(rule, gamma: complex, k0: float, height_m: float, n2: complex, *, slopes: bool):
-    """(P, Q) on a rule of :func:`_fixed_rule`, with ``slopes`` also (dP/dgamma, dQ/dgamma) from the same nodes.
+    """(P, Q) on a rule of :func:`_fixed_rule`, with ``slopes`` also (dP/dgamma, dQ/dgamma) from the same nodes; on a
+    rule of several (:func:`_rules_on`, 2-D weights) a list of those tuples, one per rule.
 
     With c = u0^2 - u1^2 = (n^2 - 1) k0^2, s = u0 + u1, D = n^2 u0 + u1 and e = exp(-2 u0 h), the integrands of the
     module docstring are f1 = e / s and f2 = u0 (u0 - u1) e / D = c u0 v, v = f1 / D (u0 - u1 = c / s: no
@@ -216,12 +252,20 @@ def _earth_sums(rule, gamma: complex, k0: float, height_m: float, n2: complex, *
         f[4] *= v
         f[4] /= den
     v *= u0
-    sums = f @ weights
-    p, q = complex(sums[0]), 2 * complex(sums[0]) - 2 * c * complex(sums[1]) / k0**2
+    sums = (f @ weights).tolist()
+    if weights.ndim == 2:  # several rules (:func:`_rules_on`): a tuple per rule
+        return [_integrals_of(col, gamma, c, k0, slopes) for col in zip(*sums)]
+    return _integrals_of(sums, gamma, c, k0, slopes)
+
+
+def _integrals_of(sums, gamma: complex, c: complex, k0: float, slopes: bool):
+    """(P, Q[, dP, dQ]) of :func:`_earth_sums` from the weighted sums of its integrands."""
+    p = sums[0]
+    q = 2 * p - 2 * c * sums[1] / k0**2
     if not slopes:
         return p, q
-    dp = gamma * complex(sums[2])
-    return p, q, dp, 2 * dp - 2 * c * gamma * (complex(sums[3]) + c * complex(sums[4])) / k0**2
+    dp = gamma * sums[2]
+    return p, q, dp, 2 * dp - 2 * c * gamma * (sums[3] + c * sums[4]) / k0**2
 
 
 def _image_slope(gamma, k0, radius_m, height_m) -> tuple[complex, complex]:
@@ -279,30 +323,42 @@ def _secant(step, start: complex, tol: float):
     return None, None
 
 
-def _newton(step_slope, start: complex, tol: float, steps: int = 12):
-    """(gamma, slope of g there) at the root of F(gamma) = g(gamma) - gamma by Newton's method from ``start``,
-    ``step_slope(gamma) -> (g, dg/dgamma)``; (None, None) where it does not settle in ``steps`` steps.
+def _newton(step_slope, start: complex, tol: float, steps: int = 12, finish=None):
+    """Newton's method on F(gamma) = g(gamma) - gamma from ``start``, ``step_slope(gamma) -> (g, dg/dgamma, dZ'/dgamma,
+    dY'/dgamma)`` on the coarse rule: ("coarse", gamma, slope of g there) at its root, or None where it does not
+    settle in ``steps`` steps.
 
     It stops at an evaluated gamma with |F| < tol |gamma| (returning g there), or, once two steps have shown the
     quadratic convergence |F_next| ~ C |F|^2, where C |F|^2 lies below tol |gamma| / 100: the next step's gamma is
-    then returned without evaluating it (the caller evaluates it anyway, on the checking rule)."""
-    gamma, last = start, None
+    then returned without evaluating it (the caller evaluates it anyway, on the checking rule).  One step earlier,
+    where C |F|^2 lies below 1e-8 |gamma|, ``finish(gamma, slope, dZ', dY', drift)`` may end the search on the
+    checking rule from the next gamma (:func:`_settle`): its answer is returned where it gives one; ``drift``
+    estimates how much g's slope changes over that step (the last two steps' change, scaled by the steps' ratio)."""
+    gamma, last, before = start, None, None
     for _ in range(steps):
-        g, slope = step_slope(gamma)
+        g, slope, dz, dy = step_slope(gamma)
         f = g - gamma
         size = abs(f)
         if size < tol * abs(gamma):
-            return g, slope
+            return "coarse", g, slope
         if slope == 1.0 or not cmath.isfinite(slope):
             break
-        gamma = gamma - f / (slope - 1.0)
-        if last is not None and size < last and size * size / (last * last) * size < 1e-2 * tol * abs(gamma):
-            return gamma, slope
-        last = size
-    return None, None
+        step = -f / (slope - 1.0)
+        gamma = gamma + step
+        if last is not None and size < last:
+            ahead = size * size / (last * last) * size  # |F| expected at the new gamma
+            if ahead < 1e-2 * tol * abs(gamma):
+                return "coarse", gamma, slope
+            if finish is not None and ahead < 1e-8 * abs(gamma):
+                done = finish(gamma, slope, dz, dy, abs(slope - before[0]) * abs(step) / abs(before[1]))
+                if done is not None:
+                    return done
+                finish = None
+        last, before = size, (slope, step)
+    return None
 
 
-def _settle(step, start: complex, tol: float, plain_steps: int, step_slope=None):
+def _settle(step, start: complex, tol: float, plain_steps: int, step_slope=None, finish=None):
     """The root of gamma = g(gamma), ``step(gamma, nodes) -> (g(gamma), Z', Y')`` with the earth integrals on
     ``nodes`` points a piece: (g, Z', Y') at the first gamma with |g(gamma) - gamma| < tol |gamma| under the fine
     rule (FINE_NODES), or None where the plain iteration does not settle.
@@ -320,14 +376,25 @@ def _settle(step, start: complex, tol: float, plain_steps: int, step_slope=None)
     iteration settles there too, one evaluation on a finer rule (CHECK_NODES a piece, same pieces) at that root
     decides: where it leaves |g(gamma) - gamma| < tol |gamma| too, the two rules agree and that evaluation is the
     answer (the fine rule's root lies within about 1e-11 of it, measured in tests/test_modal.py); otherwise the
-    fine rule finishes as above.  Where Newton does not settle, the secant's path decides as before."""
+    fine rule finishes as above.  Where Newton does not settle, the secant's path decides as before.
+
+    With ``finish`` (:func:`_newton`; gamma -> [(g, Z', Y') on the coarse rule, the same on the check rule], one
+    pass), the last of those evaluations is saved where Newton's steps say the next gamma lies within about 1e-8 of
+    the root: both rules are evaluated there together, and where they agree (g within tol |gamma|) the check rule's
+    root is one more step along the slopes already known, Z' and Y' carried there along theirs (taken where the
+    step's error, |F| times the drift of g's slope over it, lies below tol |gamma| / 100); where they disagree the
+    fine rule finishes from there as above."""
     coarse = None
     if step_slope is not None:
-        root, rate = _newton(step_slope, start, tol)
-        if root is not None and abs(rate) < 1.0:
-            check = step(root, CHECK_NODES)
-            if abs(check[0] - root) < tol * abs(root):
-                return check
+        found = _newton(step_slope, start, tol, finish=finish)
+        if found is not None and abs(found[2]) < 1.0:
+            kind, root, rate = found
+            if kind == "root":
+                return root
+            if kind == "coarse":
+                check = step(root, CHECK_NODES)
+                if abs(check[0] - root) < tol * abs(root):
+                    return check
             coarse, slope = (root,), rate - 1.0
     if coarse is None:
         coarse, slope = _secant(lambda g: step(g, COARSE_NODES), start, tol)
@@ -383,7 +450,9 @@ def wire_over_earth(
     layer = 0.0 if insulation_radius_m is None else float(np.log(b / radius_m))
     rho = b if b > radius_m else 0.0
     edges = _earth_edges(-(complex(gamma_start) ** 2 + k0**2), k0, height_m, n2)
-    coarse = _rule_on(edges, COARSE_NODES, rho)
+    pair = (COARSE_NODES, CHECK_NODES)
+    both = _rules_on(edges, pair, rho)  # the coarse and check rules, made once
+    coarse = _rule_of(both, pair, 0)
 
     z_scale = 1j * omega * MU0_H_PER_M / (2 * np.pi)
     y_scale = 2j * np.pi * omega * EPS0_F_PER_M
@@ -397,7 +466,7 @@ def wire_over_earth(
         if nodes == COARSE_NODES:  # the secant closing in: one rule for every step
             p, q = _earth_on(coarse, gamma, k0, height_m, n2)
         elif nodes == CHECK_NODES:  # a root the coarse rule found, checked on the same pieces
-            p, q = _earth_on(_rule_on(edges, nodes, rho), gamma, k0, height_m, n2)
+            p, q = _earth_on(_rule_of(both, pair, 1), gamma, k0, height_m, n2)
         else:
             p, q = earth_integrals(gamma, freq_hz, height_m, n2, offset_m=rho, nodes=nodes)
         z, y, _ = series_shunt(_image_term(gamma, k0, b, height_m), p, q)
@@ -410,9 +479,26 @@ def wire_over_earth(
         g = _forward(z * y)
         dz = z_scale * (dlam + 2 * dp)
         dy = -y * (dlam + dq) / shunt
-        return g, (dz * y + z * dy) / (2 * g)
+        return g, (dz * y + z * dy) / (2 * g), dz, dy
 
-    return _settle(step, complex(gamma_start), 1e-12, 80, step_slope if newton else None)
+    def finish(gamma, slope, dz, dy, drift):
+        """The check rule's root from ``gamma`` near it (:func:`_settle`): ("root", (g, Z', Y'), slope), ("near",
+        gamma, slope) where the coarse and check rules disagree there, or None (Newton goes on)."""
+        lam = _image_term(gamma, k0, b, height_m)
+        sums = _earth_sums(both, gamma, k0, height_m, n2, slopes=False)
+        (z1, y1, _), (z, y, _) = (series_shunt(lam, p, q) for p, q in sums)
+        g = _forward(z * y)
+        if abs(_forward(z1 * y1) - g) >= tol * abs(gamma):
+            return "near", gamma, slope
+        f = g - gamma
+        if abs(f) >= 1e-8 * abs(gamma) or abs(f) * drift >= 1e-2 * tol * abs(gamma) * abs(slope - 1.0):
+            return None
+        step = -f / (slope - 1.0)
+        z, y = z + dz * step, y + dy * step
+        return "root", (_forward(z * y), z, y), slope
+
+    tol = 1e-12
+    return _settle(step, complex(gamma_start), tol, 80, *((step_slope, finish) if newton else ()))
 
 
 def wire_over_earth_secant(*args, **kwargs) -> tuple[complex, complex, complex] | None:
