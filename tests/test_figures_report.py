@@ -631,3 +631,22 @@ def test_ticks_placed_once_draw_the_same_files(results, monkeypatch):
         for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
     ]
     assert once == every
+
+
+def test_the_figures_process_imports_matplotlib_without_its_3d_axes():
+    # drawing.warm_up (in the figures' helper, a process of its own) leaves matplotlib's 3D axes unimported, quietly,
+    # and they import again after; its small figure is drawn only where asked (the figure drawn ahead warms up).
+    import sys
+
+    code = (
+        "import sys, warnings\n"
+        "warnings.simplefilter('error')\n"
+        "from snrgain.outputs import drawing\n"
+        "drawing.warm_up('svg', ['snrgain.outputs.report'], draw=False)\n"
+        "assert 'matplotlib.figure' in sys.modules and 'mpl_toolkits.mplot3d' not in sys.modules\n"
+        "drawing.warm_up_figure('svg')\n"
+        "from mpl_toolkits.mplot3d import Axes3D\n"
+        "print('ok')\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0 and done.stdout.strip() == "ok", done.stderr[-2000:]
