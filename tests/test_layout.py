@@ -273,3 +273,29 @@ def test_a_new_design_at_many_places_scored_at_once_equals_it_made_at_its_first_
 def _middle_of(rng):
     lo, hi = rng
     return float(np.mod(lo + 0.5 * np.mod(hi - lo, 2 * np.pi), 2 * np.pi))
+
+
+def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
+    # grid_all hands the last candidates to a forked process (two cores or more): every score the same as scored
+    # one after the other here, to the bit, and the search's layouts the same.
+    import snrgain.outputs.drawing as drawing
+
+    monkeypatch.setattr(drawing, "workers", lambda count: 1)
+    one = _problem(FILES[1])
+    feasible = [one.feasible(i) for i in range(len(one.names))]
+    assert len(feasible) > 1
+    alone = one.grid_all(feasible)
+    monkeypatch.setattr(drawing, "workers", lambda count: 2)
+    two = _problem(FILES[1])
+    seen = []
+    shared = two.grid_all(feasible, progress=lambda done, total: seen.append((done, total)))
+    assert shared == alone
+    assert seen[-1] == (sum(map(len, feasible)),) * 2
+    # a candidate scored in the other process leaves no products here: the search makes its start again
+    assert not any(k[0] == len(feasible) - 1 for k in two._sky)
+    monkeypatch.setattr(drawing, "workers", lambda count: 1)
+    want = one.search(keep=2)
+    monkeypatch.setattr(drawing, "workers", lambda count: 2)
+    got = _problem(FILES[1]).search(keep=2)
+    assert [lay.designs for lay in got] == [lay.designs for lay in want]
+    assert [lay.snr_gain_db for lay in got] == [lay.snr_gain_db for lay in want]

@@ -549,19 +549,9 @@ class Problem:
         """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
         per = []
         feasible = [self.feasible(i) for i in range(len(self.names))]  # geometry first: a dead end says so at once
-        total = sum(len(f) for f in feasible)
-        done = 0
-        for i, designs in enumerate(feasible):
-            found = []
-            same: dict[tuple, list[Design]] = {}  # one design (bearing, length) at many places: scored at once
-            for d in designs:
-                same.setdefault((d.bearing_rad, d.length_m), []).append(d)
-            for group in same.values():
-                found += list(zip((float(g) for g in self.snr_gains_db(group, i)), group))
-                done += len(group)
-                if progress is not None:
-                    progress(done, total)
-            found.sort(key=lambda x: -x[0])
+        scores = self.grid_all(feasible, progress)
+        for found in scores:
+            found = sorted(found, key=lambda x: -x[0])
             top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(feasible))))
             per.append(_distinct(found, min(TOP_PER_CANDIDATE, top)))
         # Every combination of the kept designs, best total first, until enough keep clear of one another.
@@ -584,10 +574,94 @@ class Problem:
                 f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} of one another; widen the ranges or "
                 "the lot"
             )
+        for i, d in enumerate(chosen[0]):  # the refinement's start as the grid left it, also if scored elsewhere
+            if self._key(i, d.bearing_rad, d.length_m) not in self._sky and not self.switched[i]:
+                self.snr_gains_db(
+                    [g for g in feasible[i] if (g.bearing_rad, g.length_m) == (d.bearing_rad, d.length_m)], i
+                )
         layouts = [self._layout(designs) for designs in chosen]
         layouts[0] = self.refine(layouts[0])
         layouts.sort(key=lambda lay: -lay.worth_db)
         return layouts
+
+    def grid_scores(self, i: int, designs: list[Design], step=None) -> list[tuple[float, Design]]:
+        """(score, design) of each of candidate i's feasible grid designs, a (bearing, length) at all its places in
+        one call (:meth:`snr_gains_db`), in the grid's order; ``step(n)`` is called as n more are scored."""
+        found = []
+        same: dict[tuple, list[Design]] = {}  # one design (bearing, length) at many places: scored at once
+        for d in designs:
+            same.setdefault((d.bearing_rad, d.length_m), []).append(d)
+        for group in same.values():
+            found += list(zip((float(g) for g in self.snr_gains_db(group, i)), group))
+            if step is not None:
+                step(len(group))
+        return found
+
+    def grid_all(self, feasible: list[list[Design]], progress=None) -> list[list[tuple[float, Design]]]:
+        """:meth:`grid_scores` of every candidate: on a machine with two cores or more (and fork), the last
+        candidates (about half the places) in a forked process while this one scores the first, else one after the
+        other.  The scores are the same either way: a design's score at a place does not depend on what else was
+        scored before it (tested); the forked process's kept products are not kept here (the search makes again the
+        one design of those its refinement starts from)."""
+        from snrgain.outputs.drawing import workers
+
+        total = sum(len(f) for f in feasible)
+        done = [0]
+
+        def step(n):
+            done[0] += n
+            if progress is not None:
+                progress(done[0], total)
+
+        # the candidates from ``split`` on go to the other process: the split nearest half the places
+        split = min(range(1, len(feasible)), key=lambda k: abs(2 * sum(map(len, feasible[k:])) - total), default=0)
+        if not split or workers(2) < 2:
+            return [self.grid_scores(i, f, step) for i, f in enumerate(feasible)]
+        import multiprocessing
+        import os
+        import sys
+
+        # the first design scored here first: the tables and kept values it makes (the placed sources' and the
+        # vertical's fields, the sky's groups) are inherited by the other process, not made again there
+        d0 = feasible[0][0]
+        n0 = sum(1 for d in feasible[0] if (d.bearing_rad, d.length_m) == (d0.bearing_rad, d0.length_m))
+        first = self.grid_scores(0, feasible[0][:n0], step)
+        ctx = multiprocessing.get_context("fork")
+        recv, send = ctx.Pipe(duplex=False)
+        for stream in (sys.stdout, sys.stderr):  # nothing buffered to be written twice
+            stream.flush()
+        proc = ctx.Process(target=self._grid_child, args=(os.getpid(), feasible, split, send), daemon=True)
+        proc.start()
+        send.close()
+        try:
+            out = [self.grid_scores(i, f[n0:] if i == 0 else f, step) for i, f in enumerate(feasible[:split])]
+            out[0] = first + out[0]
+            try:
+                theirs = recv.recv()
+            except EOFError:  # the other process failed: its candidates scored here
+                theirs = None
+            if theirs is None:
+                theirs = [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]
+            step(sum(len(f) for f in feasible[split:]))
+            return out + list(theirs)
+        finally:
+            recv.close()
+            if proc.is_alive():
+                proc.kill()
+            proc.join()
+
+    def _grid_child(self, parent: int, feasible, split: int, send) -> None:
+        """In the forked process: :meth:`grid_scores` of the candidates from ``split`` on, sent back (None on
+        failure); Ctrl-C and SIGTERM are left to the command, which ends this process."""
+        from snrgain.outputs.drawing import _worker_start
+
+        _worker_start(parent)
+        try:
+            send.send([self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split])
+        except Exception:
+            send.send(None)
+        finally:
+            send.close()
 
     def _layout(self, designs) -> Layout:
         """The layout of ``designs`` with each one's SNR gain as the ranking gives it (``exact``)."""
