@@ -299,3 +299,14 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
     got = _problem(FILES[1]).search(keep=2)
     assert [lay.designs for lay in got] == [lay.designs for lay in want]
     assert [lay.snr_gain_db for lay in got] == [lay.snr_gain_db for lay in want]
+
+
+def test_work_elsewhere_gives_its_result_or_none():
+    from snrgain.tools.layout import _elsewhere
+
+    with _elsewhere(lambda: {"scores": [1.5, 2.5]}) as got:
+        here = sum(range(10))
+        assert got() == {"scores": [1.5, 2.5]}
+    assert here == 45
+    with _elsewhere(lambda: 1 / 0) as got:  # a failure there: None, nothing raised or printed here
+        assert got() is None

@@ -40,6 +40,7 @@ written.  Its worth is, over the targets nearest its states' bearings, each targ
 
 from __future__ import annotations
 
+from contextlib import contextmanager
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -617,51 +618,19 @@ class Problem:
         split = min(range(1, len(feasible)), key=lambda k: abs(2 * sum(map(len, feasible[k:])) - total), default=0)
         if not split or workers(2) < 2:
             return [self.grid_scores(i, f, step) for i, f in enumerate(feasible)]
-        import multiprocessing
-        import os
-        import sys
-
         # the first design scored here first: the tables and kept values it makes (the placed sources' and the
         # vertical's fields, the sky's groups) are inherited by the other process, not made again there
         d0 = feasible[0][0]
         n0 = sum(1 for d in feasible[0] if (d.bearing_rad, d.length_m) == (d0.bearing_rad, d0.length_m))
         first = self.grid_scores(0, feasible[0][:n0], step)
-        ctx = multiprocessing.get_context("fork")
-        recv, send = ctx.Pipe(duplex=False)
-        for stream in (sys.stdout, sys.stderr):  # nothing buffered to be written twice
-            stream.flush()
-        proc = ctx.Process(target=self._grid_child, args=(os.getpid(), feasible, split, send), daemon=True)
-        proc.start()
-        send.close()
-        try:
+        with _elsewhere(lambda: [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]) as theirs:
             out = [self.grid_scores(i, f[n0:] if i == 0 else f, step) for i, f in enumerate(feasible[:split])]
             out[0] = first + out[0]
-            try:
-                theirs = recv.recv()
-            except EOFError:  # the other process failed: its candidates scored here
-                theirs = None
-            if theirs is None:
-                theirs = [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]
-            step(sum(len(f) for f in feasible[split:]))
-            return out + list(theirs)
-        finally:
-            recv.close()
-            if proc.is_alive():
-                proc.kill()
-            proc.join()
-
-    def _grid_child(self, parent: int, feasible, split: int, send) -> None:
-        """In the forked process: :meth:`grid_scores` of the candidates from ``split`` on, sent back (None on
-        failure); Ctrl-C and SIGTERM are left to the command, which ends this process."""
-        from snrgain.outputs.drawing import _worker_start
-
-        _worker_start(parent)
-        try:
-            send.send([self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split])
-        except Exception:
-            send.send(None)
-        finally:
-            send.close()
+            rest = theirs()
+        if rest is None:  # the other process failed: its candidates scored here
+            rest = [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]
+        step(sum(len(f) for f in feasible[split:]))
+        return out + list(rest)
 
     def _layout(self, designs) -> Layout:
         """The layout of ``designs`` with each one's SNR gain as the ranking gives it (``exact``)."""
@@ -791,6 +760,50 @@ class Problem:
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
                 return self._layout(ds)
         raise ValueError("layout: no valid random placement found")
+
+
+@contextmanager
+def _elsewhere(work):
+    """Runs ``work()`` in a forked process while the ``with`` block runs here; yields ``get()``, which waits for its
+    result (None if it failed or ended without one).  Leaving the block ends the process; Ctrl-C and SIGTERM are
+    left to the command (snrgain.outputs.drawing's workers likewise)."""
+    import multiprocessing
+    import os
+    import sys
+
+    ctx = multiprocessing.get_context("fork")
+    recv, send = ctx.Pipe(duplex=False)
+    for stream in (sys.stdout, sys.stderr):  # nothing buffered to be written twice
+        stream.flush()
+    proc = ctx.Process(target=_elsewhere_run, args=(os.getpid(), work, send), daemon=True)
+    proc.start()
+    send.close()
+
+    def get():
+        try:
+            return recv.recv()
+        except EOFError:
+            return None
+
+    try:
+        yield get
+    finally:
+        recv.close()
+        if proc.is_alive():
+            proc.kill()
+        proc.join()
+
+
+def _elsewhere_run(parent: int, work, send) -> None:
+    from snrgain.outputs.drawing import _worker_start
+
+    _worker_start(parent)
+    try:
+        send.send(work())
+    except Exception:
+        send.send(None)
+    finally:
+        send.close()
 
 
 def plan_data(problem: Problem, layout: Layout) -> dict:
