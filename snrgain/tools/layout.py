@@ -580,8 +580,16 @@ class Problem:
                 self.snr_gains_db(
                     [g for g in feasible[i] if (g.bearing_rad, g.length_m) == (d.bearing_rad, d.length_m)], i
                 )
-        layouts = [self._layout(designs) for designs in chosen]
-        layouts[0] = self.refine(layouts[0])
+        from snrgain.outputs.drawing import workers
+
+        if len(chosen) > 1 and workers(2) > 1:  # the next-best layouts scored in a forked process meanwhile
+            with _elsewhere(lambda: [self._layout(designs) for designs in chosen[1:]]) as theirs:
+                layouts = [self.refine(self._layout(chosen[0]))]
+                rest = theirs()
+            layouts += rest if rest is not None else [self._layout(designs) for designs in chosen[1:]]
+        else:
+            layouts = [self._layout(designs) for designs in chosen]
+            layouts[0] = self.refine(layouts[0])
         layouts.sort(key=lambda lay: -lay.worth_db)
         return layouts
 
