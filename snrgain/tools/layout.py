@@ -580,9 +580,7 @@ class Problem:
                 self.snr_gains_db(
                     [g for g in feasible[i] if (g.bearing_rad, g.length_m) == (d.bearing_rad, d.length_m)], i
                 )
-        from snrgain.outputs.drawing import workers
-
-        if len(chosen) > 1 and workers(2) > 1:  # the next-best layouts scored in a forked process meanwhile
+        if len(chosen) > 1 and _spare_core():  # the next-best layouts scored in a forked process meanwhile
             with _elsewhere(lambda: [self._layout(designs) for designs in chosen[1:]]) as theirs:
                 layouts = [self.refine(self._layout(chosen[0]))]
                 rest = theirs()
@@ -612,8 +610,6 @@ class Problem:
         other.  The scores are the same either way: a design's score at a place does not depend on what else was
         scored before it (tested); the forked process's kept products are not kept here (the search makes again the
         one design of those its refinement starts from)."""
-        from snrgain.outputs.drawing import workers
-
         total = sum(len(f) for f in feasible)
         done = [0]
 
@@ -624,7 +620,7 @@ class Problem:
 
         # the candidates from ``split`` on go to the other process: the split nearest half the places
         split = min(range(1, len(feasible)), key=lambda k: abs(2 * sum(map(len, feasible[k:])) - total), default=0)
-        if not split or workers(2) < 2:
+        if not split or not _spare_core():
             return [self.grid_scores(i, f, step) for i, f in enumerate(feasible)]
         # the first design scored here first: the tables and kept values it makes (the placed sources' and the
         # vertical's fields, the sky's groups) are inherited by the other process, not made again there
@@ -783,6 +779,25 @@ def _first_two(p):
     temps = snr.Temperatures(t.by_component[:, :2], t.total[:2])
     powers = {n: v[:2] for n, v in p.powers.items()}
     return Products(p.antennas[:2], gains, temps, powers, p.ground)
+
+
+def _spare_core() -> bool:
+    """Whether a forked process would run beside this one: two cores or more for it (fork available,
+    snrgain.outputs.drawing.workers, $SNRGAIN_WORKERS) and a load average (the last minute's, this process in it)
+    at least half a core short of the cores; on a machine already busy a second process only adds its start to the
+    work.  The results are the same either way."""
+    import os
+
+    from snrgain.outputs.drawing import workers
+
+    if workers(2) < 2:
+        return False
+    try:
+        cores = len(os.sched_getaffinity(0))
+        load = os.getloadavg()[0]
+    except (AttributeError, OSError):  # not known here
+        return True
+    return load <= cores - 0.5
 
 
 @contextmanager
