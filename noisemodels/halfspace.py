@@ -413,10 +413,9 @@ class _Table:
         if g[0] == "heights":
             _, j0, wz, at, wr, phase = g
             at_h = _weighted(lambda k: self.values[:, :, j0 + k], wz)  # (rows, rho nodes, heights)
-            return _weighted(lambda k: at_h.reshape(len(self.rows), -1)[:, at[:, k]], wr) * phase
+            return _gathered(at_h.reshape(len(self.rows), -1), at, wr) * phase
         _, at, w, phase = g
-        flat = self.values.reshape(len(self.rows), -1)
-        return _weighted(lambda k: flat[:, at[:, k]], w) * phase
+        return _gathered(self.values.reshape(len(self.rows), -1), at, w) * phase
 
 
 def _weighted(term, w: np.ndarray) -> np.ndarray:
@@ -426,6 +425,16 @@ def _weighted(term, w: np.ndarray) -> np.ndarray:
     for k in range(1, w.shape[1]):
         out += term(k) * w[:, k]
     return out
+
+
+def _gathered(flat: np.ndarray, at: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """sum_k flat[:, at[k]] w[k] (rows, N): ``flat`` (rows, nodes), the stencil's node indices ``at`` and weights
+    ``w`` (K, N) stencil node first.  One gather of every node, one product and a sum over the stencil's axis, which
+    numpy adds slice by slice in order: the same sums, to the bit, as :func:`_weighted`'s one term at a time, in three
+    calls instead of 3 K (the calls' own cost is most of the time at a few hundred points)."""
+    v = flat[:, at]  # (rows, K, N)
+    v *= w
+    return v.sum(axis=1)
 
 
 class _Kept(OrderedDict):
@@ -502,13 +511,13 @@ def _geometry(k0: float, ns: int, nz: int, rho: np.ndarray, zeta: np.ndarray) ->
     if len(heights) * ns <= 2 * len(zeta):
         j0, tj = _stencil(heights / ZETA_STEP_M, nz)
         wz = np.stack(_lagrange(tj), axis=1)  # (heights, 4)
-        at = (i0[:, None] + np.arange(4)[None, :]) * len(heights) + which.reshape(-1)[:, None]
-        out = ("heights", j0, wz, at, np.stack(_lagrange(ti), axis=1), phase)
+        at = (i0[None, :] + np.arange(4)[:, None]) * len(heights) + which.reshape(-1)[None, :]  # (4, N)
+        out = ("heights", j0, wz, at, np.stack(_lagrange(ti)), phase)
     else:
         j0, tj = _stencil(zeta / ZETA_STEP_M, nz)
         offsets = (np.arange(4)[:, None] * nz + np.arange(4)[None, :]).ravel()
-        at = (i0 * nz + j0)[:, None] + offsets[None, :]
-        w = (np.stack(_lagrange(ti), axis=1)[:, :, None] * np.stack(_lagrange(tj), axis=1)[:, None, :]).reshape(-1, 16)
+        at = offsets[:, None] + (i0 * nz + j0)[None, :]  # (16, N)
+        w = (np.stack(_lagrange(ti))[:, None, :] * np.stack(_lagrange(tj))[None, :, :]).reshape(16, -1)
         out = ("points", at, w, phase)
     if small:
         _keep(_GEOMETRY, key, out)
@@ -609,8 +618,7 @@ def _remainders(tabs, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
         return np.stack([t.remainder(rho, zeta) for t in tabs])
     _, j0, wz, at, wr, phase = g
     at_h = np.stack([_weighted(lambda k, t=t: t.values[:, :, j0 + k], wz) for t in tabs])  # (G, rows, nodes, heights)
-    flat = at_h.reshape(len(tabs) * n_rows, -1)
-    got = _weighted(lambda k: flat[:, at[:, k]], wr) * phase
+    got = _gathered(at_h.reshape(len(tabs) * n_rows, -1), at, wr) * phase
     return got.reshape(len(tabs), n_rows, -1)
 
 

@@ -263,11 +263,12 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     place = np.broadcast_to(np.arange(lat.size).reshape(lat.shape), shape)
     b = np.broadcast_to(b, shape)
     out = np.empty(shape)
-    for blk in np.unique(np.asarray(block, dtype=int)):  # the distinct blocks as given (small), not broadcast
+    # np.unique with counts: its plain form imports numpy.ma (~15 ms of a command's start) to look for a mask
+    for blk in np.unique(np.asarray(block, dtype=int), return_counts=True)[0]:  # the distinct blocks as given
         sel = b == blk
         idx = place[sel]
         # the places this block is asked at, each once: all of them (no gathers) when it covers every place
-        need = np.unique(idx) if idx.size < lat.size else np.arange(lat.size)
+        need = np.unique(idx, return_counts=True)[0] if idx.size < lat.size else np.arange(lat.size)
         whole = need.size == lat.size
         sk, sj, pp = (sin_k, sin_j, p) if whole else (sin_k[need], sin_j[need], p[need])
         z = np.einsum("nk,kj->nj", sk, c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)

@@ -168,7 +168,8 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
 
     restore = _tight_bbox.adjust_bbox(fig, Bbox.from_extents(-m, -m, w + m, h + m), canvas.get_renderer())
     try:
-        canvas.draw()
+        with ticks_once(fig):
+            canvas.draw()
         image = np.asarray(canvas.buffer_rgba())
     finally:
         restore()
@@ -222,7 +223,8 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     buf = io.BytesIO()
     fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
     try:
-        fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
+        with ticks_once(fig):
+            fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
     finally:
         fig.canvas.mpl_disconnect(cid)
         if engine is not None:
@@ -255,6 +257,42 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
         with open(target, "wb") as f:
             f.write(data)
     return True
+
+
+@contextlib.contextmanager
+def ticks_once(fig):
+    """A context in which each axis of ``fig`` places its ticks once for as long as nothing it places them by
+    changes (its view limits, its axes' box, the figure's resolution), not at every ask: a draw asks each axis for
+    its ticks as it draws them and again as it places the axis' label, the box measured after the draw (an SVG's,
+    :func:`_svg_one_draw`) once more, every time finding the tick positions and formatting their labels anew (a
+    tenth of an SVG figure's time).  The same ticks, labels and picture; the axes as they were after."""
+    axes = [axis for ax in fig.axes for axis in ax._axis_map.values() if "_update_ticks" not in vars(axis)]
+    for axis in axes:
+        axis._update_ticks = _placed_once(axis, axis._update_ticks)
+    try:
+        yield
+    finally:
+        for axis in axes:
+            vars(axis).pop("_update_ticks", None)
+
+
+def _placed_once(axis, update):
+    """``update`` (an axis' ``_update_ticks``) answered again while its inputs stay as they were."""
+    kept: list = []
+
+    def once():
+        key = (
+            tuple(float(v) for v in axis.get_view_interval()),
+            tuple(axis.axes.bbox.bounds),
+            axis.get_figure(root=True).dpi,
+        )
+        if kept and kept[0] == key:
+            return list(kept[1])
+        ticks = update()
+        kept[:] = [key, list(ticks)]
+        return ticks
+
+    return once
 
 
 def _write_png(target, rgba, dpi: float, pil_kwargs: dict | None) -> None:

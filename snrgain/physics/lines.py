@@ -307,10 +307,8 @@ def _mode(solver: str, *args):
     """``snrgain.physics.modal.<solver>(*args)`` ((gamma, Z', Y') or None), kept in the persistent cache by its
     arguments and the solver's code (:func:`noisemodels.skycache.remembered`, kind "wiremode"): a later run reads the
     numbers back, to the bit, instead of iterating the modal equation again.  Kept in this process too (by the
-    arguments: a hit costs no key's hash)."""
-    import noisemodels.groundwave
+    arguments: a hit costs no key's hash).  With the persistent cache off the mode is solved at once (no key made)."""
     from noisemodels import skycache
-    from snrgain.physics import ground, quadrature
 
     def compute():
         from snrgain.physics import modal  # only to solve afresh: a warm cache's rank never loads it
@@ -318,11 +316,23 @@ def _mode(solver: str, *args):
         mode = getattr(modal, solver)(*args)
         return np.zeros(0, dtype=complex) if mode is None else np.array(mode, dtype=complex)
 
-    modal_file = Path(ground.__file__).with_name("modal.py")  # snrgain.physics.modal's source, not imported
-    files = (modal_file, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
-    key = {"version": WIRE_MODE_VERSION, "code": skycache.code_digest(*files), "solver": solver, "args": list(args)}
-    kept = skycache.remembered("wiremode", key, compute, dtype=complex, shapes=((0,), (3,)))
+    if not skycache.enabled():
+        kept = compute()
+    else:
+        key = {"version": WIRE_MODE_VERSION, "code": _mode_code(), "solver": solver, "args": list(args)}
+        kept = skycache.remembered("wiremode", key, compute, dtype=complex, shapes=((0,), (3,)))
     return None if kept.size == 0 else tuple(complex(v) for v in kept)
+
+
+def _mode_code() -> str:
+    """The digest of the code the wire modes come from (part of :func:`_mode`'s key): snrgain.physics.modal's source
+    (not imported) and what it reads."""
+    import noisemodels.groundwave
+    from noisemodels import skycache
+    from snrgain.physics import ground, quadrature
+
+    modal_file = Path(ground.__file__).with_name("modal.py")
+    return skycache.code_digest(modal_file, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
 
 
 def _check_geometry(radius_m, height_m):
