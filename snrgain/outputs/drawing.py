@@ -445,7 +445,7 @@ def warm_up_figure(fmt: str = "png") -> None:
     figure_bytes(fig, fmt, dpi=72, bbox_inches="tight")
 
 
-def _worker_start(parent: int) -> None:
+def worker_start(parent: int) -> None:
     """In each worker: die with the command (Linux PR_SET_PDEATHSIG), so a killed command leaves no worker behind
     holding its output pipes; leave Ctrl-C and SIGTERM to the command, which stops the drawing cleanly."""
     import signal
@@ -472,8 +472,8 @@ def _warmed(fmt: str) -> bool:
 
 
 def _drawing_worker_start(parent: int) -> None:
-    """:func:`_worker_start`, and the worker set to draw as :func:`drawing_settings` draws."""
-    _worker_start(parent)
+    """:func:`worker_start`, and the worker set to draw as :func:`drawing_settings` draws."""
+    worker_start(parent)
     _drawing_process()
 
 
@@ -664,7 +664,7 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
     draw them (those drawn ahead taken as they are), send the bytes back."""
     import gc
 
-    _worker_start(parent)
+    worker_start(parent)
     try:
         warm_up(fmt, modules, draw=False)  # the figure drawn ahead warms up instead, else the one below
     except Exception:  # any real problem comes back when the figures are drawn

@@ -817,9 +817,9 @@ def _elsewhere(work):
 
 
 def _elsewhere_run(parent: int, work, send) -> None:
-    from snrgain.outputs.drawing import _worker_start
+    from snrgain.outputs.drawing import worker_start
 
-    _worker_start(parent)
+    worker_start(parent)
     try:
         send.send(work())
     except Exception:
