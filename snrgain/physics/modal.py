@@ -295,12 +295,18 @@ def _earth_curves(rule, gamma: complex, k0: float, height_m: float, n2: complex,
     den = n2 * u0
     den += u1
     v = np.divide(f1, den, out=f[1])
-    f1, v, den, u0 = f1[lo:], v[lo:].copy(), den[lo:], u0[lo:]
-    inv0, inv1 = 1.0 / u[:, lo:]
-    inv0_2, inv1_2 = inv0 * inv0, inv1 * inv1
-    a = (2.0 * height_m + inv1) * inv0
-    m = (n2 * inv0 + inv1) / den
-    k = c * inv0 * inv1 / den
+    f1, v, den = f1[lo:], v[lo:], den[lo:]  # the check rule's nodes
+    inv = 1.0 / u[:, lo:]
+    inv0, inv1 = inv
+    inv0_2, inv1_2 = inv * inv
+    inv01 = inv0 * inv1
+    a = inv1 + 2.0 * height_m
+    a *= inv0
+    m = n2 * inv0
+    m += inv1
+    m /= den
+    k = inv01 / den
+    k *= c
     b = k + inv1
     b += 2.0 * height_m
     rows = np.empty((4, f1.size), dtype=complex)
@@ -308,15 +314,17 @@ def _earth_curves(rule, gamma: complex, k0: float, height_m: float, n2: complex,
     np.multiply(v, b, out=rows[1])
     curve = a + inv0_2
     curve *= a
-    curve += inv1_2 * inv1 * inv0
+    curve += inv1_2 * inv01
     np.multiply(f1, curve, out=rows[2])
+    spread = inv0_2 + inv1_2
+    spread += m
+    spread *= k
     curve = a + m
     curve *= b
     curve += inv1_2 * inv1
-    curve += k * (inv0_2 + inv1_2 + m)
+    curve += spread
     np.multiply(v, curve, out=rows[3])
-    f[1, lo:] *= u0  # v u0 on the second rule's nodes
-    f[1, :lo] *= u[0, :lo]
+    f[1] *= u0  # v u0
     (s0, t0), (s1, t1) = (f @ weights).tolist()
     s2, s3, s4, s5 = (rows @ weights[lo:, 1]).tolist()
     p, dp, d2p = t0, gamma * s2, s2 + g2 * s4
