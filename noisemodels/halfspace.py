@@ -409,14 +409,7 @@ class _Table:
         in rho alone: the same tensor-product polynomial, summed in another order.  What depends on the points alone
         (stencils, weights, the phase) is kept for the next table asked at the same points (:func:`_geometry`: the
         same wires under each ground of a spread)."""
-        g = _geometry(self.k0, len(self.s), len(self.zeta), rho, zeta)
-        if g[0] == "heights":
-            _, j0, wz, at, wr, phase = g
-            at_h = _weighted(lambda k: self.values[:, :, j0 + k], wz)  # (rows, rho nodes, heights)
-            return _weighted(lambda k: at_h.reshape(len(self.rows), -1)[:, at[:, k]], wr) * phase
-        _, at, w, phase = g
-        flat = self.values.reshape(len(self.rows), -1)
-        return _weighted(lambda k: flat[:, at[:, k]], w) * phase
+        return _remainders([self], rho, zeta)[0]
 
 
 def _weighted(term, w: np.ndarray) -> np.ndarray:
@@ -426,6 +419,16 @@ def _weighted(term, w: np.ndarray) -> np.ndarray:
     for k in range(1, w.shape[1]):
         out += term(k) * w[:, k]
     return out
+
+
+def _gathered(flat: np.ndarray, at: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """sum_k flat[:, at[k]] w[k] (rows, N): ``flat`` (rows, nodes), the stencil's node indices ``at`` and weights
+    ``w`` (K, N) stencil node first.  One gather of every node, one product and a sum over the stencil's axis, which
+    numpy adds slice by slice in order: the same sums, to the bit, as :func:`_weighted`'s one term at a time, in three
+    calls instead of 3 K (the calls' own cost is most of the time at a few hundred points)."""
+    v = flat[:, at]  # (rows, K, N)
+    v *= w
+    return v.sum(axis=1)
 
 
 class _Kept(OrderedDict):
@@ -486,8 +489,10 @@ def forget_geometry() -> None:
 def _geometry(k0: float, ns: int, nz: int, rho: np.ndarray, zeta: np.ndarray) -> tuple:
     """The interpolation's geometry of the points (rho, zeta) on a table of ``ns`` x ``nz`` nodes: ("heights",
     per-height zeta stencils and weights, per-point indices into the table interpolated to those heights, rho
-    weights, phase) when the points stand at a few heights, else ("points", indices, tensor weights, phase); kept
-    by the points' values (the last few)."""
+    weights, phase) when the points stand at a few heights, else ("points", indices, tensor weights, phase), or
+    ("mixed", the points at the heights holding many of them, their "heights" geometry, the rest, their "points"
+    one): a wire's or a run's points beside a compact antenna's segments, each at its own height; kept by the
+    points' values (the last few)."""
     small = rho.size <= GEOMETRY_MAX_POINTS
     if small:
         key = (float(k0), ns, nz, rho.tobytes(), zeta.tobytes())
@@ -498,21 +503,45 @@ def _geometry(k0: float, ns: int, nz: int, rho: np.ndarray, zeta: np.ndarray) ->
     r = np.hypot(rho, zeta)
     phase = np.exp(-1j * k0 * r) / np.maximum(r, 1.0)
     i0, ti = _stencil(np.arcsinh(rho / RHO_SCALE_M) / S_STEP, ns)
-    heights, which = np.unique(zeta, return_inverse=True)
+    heights, which, counts = np.unique(zeta, return_inverse=True, return_counts=True)
+    which = which.reshape(-1)
+    busy = 2 * counts >= ns  # heights holding enough points to pay for the table's interpolation to them
     if len(heights) * ns <= 2 * len(zeta):
-        j0, tj = _stencil(heights / ZETA_STEP_M, nz)
-        wz = np.stack(_lagrange(tj), axis=1)  # (heights, 4)
-        at = (i0[:, None] + np.arange(4)[None, :]) * len(heights) + which.reshape(-1)[:, None]
-        out = ("heights", j0, wz, at, np.stack(_lagrange(ti), axis=1), phase)
+        out = _heights_geometry(heights, which, i0, ti, phase, nz)
+    elif busy.any():  # a wire's or a run's height beside scattered points (a compact antenna's segments)
+        on = busy[which]
+        h, p = np.flatnonzero(on), np.flatnonzero(~on)
+        kept, w = np.unique(which[h], return_inverse=True)
+        out = (
+            "mixed",
+            h,
+            _heights_geometry(heights[kept], w.reshape(-1), i0[h], ti[h], phase[h], nz),
+            p,
+            _points_geometry(zeta[p], i0[p], ti[p], phase[p], nz),
+        )
     else:
-        j0, tj = _stencil(zeta / ZETA_STEP_M, nz)
-        offsets = (np.arange(4)[:, None] * nz + np.arange(4)[None, :]).ravel()
-        at = (i0 * nz + j0)[:, None] + offsets[None, :]
-        w = (np.stack(_lagrange(ti), axis=1)[:, :, None] * np.stack(_lagrange(tj), axis=1)[:, None, :]).reshape(-1, 16)
-        out = ("points", at, w, phase)
+        out = _points_geometry(zeta, i0, ti, phase, nz)
     if small:
         _keep(_GEOMETRY, key, out)
     return out
+
+
+def _heights_geometry(heights, which, i0, ti, phase, nz: int) -> tuple:
+    """("heights", per-height zeta stencils and weights, per-point indices into the table interpolated to those
+    heights (4, N), rho weights (4, N), phase) of points at ``heights[which]``."""
+    j0, tj = _stencil(heights / ZETA_STEP_M, nz)
+    wz = np.stack(_lagrange(tj), axis=1)  # (heights, 4)
+    at = (i0[None, :] + np.arange(4)[:, None]) * len(heights) + which[None, :]  # (4, N)
+    return ("heights", j0, wz, at, np.stack(_lagrange(ti)), phase)
+
+
+def _points_geometry(zeta, i0, ti, phase, nz: int) -> tuple:
+    """("points", indices into the table (16, N), tensor weights (16, N), phase) of points at heights ``zeta``."""
+    j0, tj = _stencil(zeta / ZETA_STEP_M, nz)
+    offsets = (np.arange(4)[:, None] * nz + np.arange(4)[None, :]).ravel()
+    at = offsets[:, None] + (i0 * nz + j0)[None, :]  # (16, N)
+    w = (np.stack(_lagrange(ti))[:, None, :] * np.stack(_lagrange(tj))[None, :, :]).reshape(16, -1)
+    return ("points", at, w, phase)
 
 
 FAR_SHARE_M = (30.0, 100.0)
@@ -603,14 +632,24 @@ def _remainders(tabs, rho: np.ndarray, zeta: np.ndarray) -> np.ndarray:
     points shared: each table's values interpolated to the points' few heights are stacked (small), then gathered
     once per stencil node; the same products summed in the same order as table by table."""
     first = tabs[0]
-    g = _geometry(first.k0, len(first.s), len(first.zeta), rho, zeta)
-    n_rows = len(first.rows)
-    if g[0] != "heights":
-        return np.stack([t.remainder(rho, zeta) for t in tabs])
+    return _remainders_at(tabs, _geometry(first.k0, len(first.s), len(first.zeta), rho, zeta))
+
+
+def _remainders_at(tabs, g: tuple) -> np.ndarray:
+    """(G, rows, N): :func:`_remainders` through the points' geometry ``g`` (:func:`_geometry`)."""
+    n_rows = len(tabs[0].rows)
+    if g[0] == "mixed":
+        _, h, g_h, p, g_p = g
+        out = np.empty((len(tabs), n_rows, len(h) + len(p)), dtype=complex)
+        out[:, :, h] = _remainders_at(tabs, g_h)
+        out[:, :, p] = _remainders_at(tabs, g_p)
+        return out
+    if g[0] == "points":
+        _, at, w, phase = g
+        return np.stack([_gathered(t.values.reshape(n_rows, -1), at, w) * phase for t in tabs])
     _, j0, wz, at, wr, phase = g
     at_h = np.stack([_weighted(lambda k, t=t: t.values[:, :, j0 + k], wz) for t in tabs])  # (G, rows, nodes, heights)
-    flat = at_h.reshape(len(tabs) * n_rows, -1)
-    got = _weighted(lambda k: flat[:, at[:, k]], wr) * phase
+    got = _gathered(at_h.reshape(len(tabs) * n_rows, -1), at, wr) * phase
     return got.reshape(len(tabs), n_rows, -1)
 
 

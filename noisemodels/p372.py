@@ -319,11 +319,9 @@ def _month_source(month, data_dir) -> tuple[str, int, int] | None:
     from noisemodels import p372_maps as maps
 
     try:
-        path = maps.month_file(maps.resolve_data_dir(data_dir), month).resolve()
-        st = path.stat()
+        return maps.month_source(month, data_dir)
     except (OSError, ValueError, maps.P372DataError):
         return None
-    return str(path), int(st.st_size), int(st.st_mtime_ns)
 
 
 @lru_cache(maxsize=256)

@@ -193,6 +193,21 @@ def load_month(month: int, data_dir: str | Path | None = None) -> AtmosphericCoe
     return _cached(str(path), int(month), mtime)
 
 
+@lru_cache(maxsize=64)
+def _resolved(path_text: str) -> str:
+    return str(Path(path_text).resolve())
+
+
+def month_source(month: int, data_dir: str | Path | None = None) -> tuple[str, int, int]:
+    """(path with links resolved, size, modification time [ns]) of a month's coefficient file: what the persistent
+    cache's keys hold of it.  Raises OSError (no such file), ValueError (no such month) or P372DataError (no
+    folder).  The resolved path is kept per path in this process (a sky resolves one file per month and hour, each
+    a walk over the path's folders); the size and time are read every call."""
+    path = _resolved(str(month_file(resolve_data_dir(data_dir), month)))
+    st = os.stat(path)
+    return path, int(st.st_size), int(st.st_mtime_ns)
+
+
 CHECKED_VERSION = 1
 """Part of the persistent cache's key of :func:`check_month`'s record of a file read cleanly."""
 
@@ -263,11 +278,12 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     place = np.broadcast_to(np.arange(lat.size).reshape(lat.shape), shape)
     b = np.broadcast_to(b, shape)
     out = np.empty(shape)
-    for blk in np.unique(np.asarray(block, dtype=int)):  # the distinct blocks as given (small), not broadcast
+    # np.unique with counts: its plain form imports numpy.ma (~15 ms of a command's start) to look for a mask
+    for blk in np.unique(np.asarray(block, dtype=int), return_counts=True)[0]:  # the distinct blocks as given
         sel = b == blk
         idx = place[sel]
         # the places this block is asked at, each once: all of them (no gathers) when it covers every place
-        need = np.unique(idx) if idx.size < lat.size else np.arange(lat.size)
+        need = np.unique(idx, return_counts=True)[0] if idx.size < lat.size else np.arange(lat.size)
         whole = need.size == lat.size
         sk, sj, pp = (sin_k, sin_j, p) if whole else (sin_k[need], sin_j[need], p[need])
         z = np.einsum("nk,kj->nj", sk, c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)

@@ -450,8 +450,7 @@ def _disk_key(grid, *, month, utc_hour, freq_hz, nside, data_dir) -> dict | None
     from noisemodels import p372_maps
 
     try:
-        path = p372_maps.month_file(p372_maps.resolve_data_dir(data_dir), month).resolve()
-        st = path.stat()
+        source = p372_maps.month_source(month, data_dir)
     except (OSError, ValueError):
         return None
     return {
@@ -470,7 +469,7 @@ def _disk_key(grid, *, month, utc_hour, freq_hz, nside, data_dir) -> dict | None
             SUB_BEARING,
             EARTH_RADIUS_M,
         ],
-        "p372": [str(path), st.st_size, st.st_mtime_ns],
+        "p372": list(source),
     }
 
 

@@ -583,6 +583,7 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
                 assert canvas._MEASURED and (canvas._LAID_OUT and canvas._HEIGHTS or not canvas._LAYOUTS)
                 assert backend_svg.RendererSVG is canvas.RememberingSVGRenderer
                 assert [drawing.figure_bytes(make(), "svg", **svg) for make in makers] == plain_svg
+                assert canvas._GLYPHS and canvas._OUTLINES  # the SVG writer's glyphs, found once
             finally:
                 canvas.remember_text(was)
         assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas
@@ -599,3 +600,53 @@ def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
     plots.prepare_sky(results.nside)
     assert list(plots._SKY_WEIGHTS) == [results.nside]
     assert drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS) == without
+
+
+def test_ticks_placed_once_draw_the_same_files(results, monkeypatch):
+    # drawing.ticks_once has each axis place its ticks once while nothing they depend on changes (a draw asks
+    # again and again, an SVG's measured box once more): the same files as with the ticks placed at every ask, and
+    # the axes left as they were.
+    import contextlib
+
+    import matplotlib as mpl
+
+    from snrgain.outputs import drawing
+
+    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
+    svg = {"bbox_inches": "tight", "metadata": {"Date": None}}
+    makers = (plots.azimuth_pattern, plots.noise_sky, plots.ranking_chart, plots.snr_over_hours, plots.site_plan)
+    once = [
+        drawing.figure_bytes(make(results), fmt, **opts)
+        for make in makers
+        for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
+    ]
+    fig = plots.elevation_pattern(results)
+    with drawing.ticks_once(fig):
+        assert all("_update_ticks" in vars(a) for ax in fig.axes for a in ax._axis_map.values())
+    assert not any("_update_ticks" in vars(a) for ax in fig.axes for a in ax._axis_map.values())
+    monkeypatch.setattr(drawing, "ticks_once", lambda fig: contextlib.nullcontext())
+    every = [
+        drawing.figure_bytes(make(results), fmt, **opts)
+        for make in makers
+        for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
+    ]
+    assert once == every
+
+
+def test_the_figures_process_imports_matplotlib_without_its_3d_axes():
+    # drawing.warm_up (in the figures' helper, a process of its own) leaves matplotlib's 3D axes unimported, quietly,
+    # and they import again after; its small figure is drawn only where asked (the figure drawn ahead warms up).
+    import sys
+
+    code = (
+        "import sys, warnings\n"
+        "warnings.simplefilter('error')\n"
+        "from snrgain.outputs import drawing\n"
+        "drawing.warm_up('svg', ['snrgain.outputs.report'], draw=False)\n"
+        "assert 'matplotlib.figure' in sys.modules and 'mpl_toolkits.mplot3d' not in sys.modules\n"
+        "drawing.warm_up_figure('svg')\n"
+        "from mpl_toolkits.mplot3d import Axes3D\n"
+        "print('ok')\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0 and done.stdout.strip() == "ok", done.stderr[-2000:]

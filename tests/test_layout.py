@@ -244,3 +244,86 @@ def test_a_design_scored_through_its_unplaced_products_equals_a_fresh_evaluation
         expected = pipeline.target_statistic(sub, pipeline.snr_gains(sub, fresh))[1, pb.target[i]]
         # the search reads a placed source's field from tables held to 1e-4 (placed.TABLE_TOLERANCE)
         assert via_known[0] == pytest.approx(expected - pb.tx_costs_db([ant])[0], abs=1e-3)
+
+
+@pytest.mark.parametrize("name", FILES)
+def test_a_new_design_at_many_places_scored_at_once_equals_it_made_at_its_first_place(name):
+    # A new design at many places (the grid, a refinement's stencil) takes its gains and sky temperatures from
+    # unheard_products and hears the placed sources at every place in one batch, the first place too; the path of
+    # design_products makes the design at its first place (its pickup worked there alone) and then the rest.  Both
+    # give the same scores: the other places to round-off, the first to the pickup tables' tolerance.  One file's
+    # source is measured away from the reference (its share not 1 there).
+    from snrgain.tools.layout import Design
+
+    fast, slow = _problem(name), _problem(name)
+    for i, pl in enumerate(fast.places):
+        b = _middle_of(pl.bearing) if pl.bearing is not None else None
+        ln = float(np.mean(pl.length)) if pl.length is not None else None
+        designs = [Design(fast.names[i], e, n, b, ln) for e, n in fast.lot_points()[::9]]
+        got = fast.snr_gains_db(designs, i)
+        slow.design_products(i, b, ln, at_m=(designs[0].east_m, designs[0].north_m))
+        want = slow.snr_gains_db(designs, i)
+        np.testing.assert_allclose(got[1:], want[1:], rtol=0, atol=1e-9)
+        assert got[0] == pytest.approx(want[0], abs=1e-3)
+        # and the design's next places read what the batch kept
+        again = [Design(fast.names[i], d.east_m + 1.0, d.north_m, b, ln) for d in designs[:3]]
+        np.testing.assert_allclose(fast.snr_gains_db(again, i), slow.snr_gains_db(again, i), rtol=0, atol=1e-9)
+
+
+def _middle_of(rng):
+    lo, hi = rng
+    return float(np.mod(lo + 0.5 * np.mod(hi - lo, 2 * np.pi), 2 * np.pi))
+
+
+def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
+    # grid_all hands the last candidates to a forked process (two cores or more): every score the same as scored
+    # one after the other here, to the bit, and the search's layouts the same.
+    import snrgain.tools.layout as layout
+
+    monkeypatch.setattr(layout, "_spare_core", lambda: False)
+    one = _problem(FILES[1])
+    feasible = [one.feasible(i) for i in range(len(one.names))]
+    assert len(feasible) > 1
+    alone = one.grid_all(feasible)
+    monkeypatch.setattr(layout, "_spare_core", lambda: True)
+    two = _problem(FILES[1])
+    seen = []
+    shared = two.grid_all(feasible, progress=lambda done, total: seen.append((done, total)))
+    assert shared == alone
+    assert seen[-1] == (sum(map(len, feasible)),) * 2
+    # a candidate scored in the other process leaves no products here: the search makes its start again
+    assert not any(k[0] == len(feasible) - 1 for k in two._sky)
+    monkeypatch.setattr(layout, "_spare_core", lambda: False)
+    want = one.search(keep=2)
+    monkeypatch.setattr(layout, "_spare_core", lambda: True)
+    got = _problem(FILES[1]).search(keep=2)
+    assert [lay.designs for lay in got] == [lay.designs for lay in want]
+    assert [lay.snr_gain_db for lay in got] == [lay.snr_gain_db for lay in want]
+
+
+def test_work_elsewhere_gives_its_result_or_none():
+    from snrgain.tools.layout import _elsewhere
+
+    with _elsewhere(lambda: {"scores": [1.5, 2.5]}) as got:
+        here = sum(range(10))
+        assert got() == {"scores": [1.5, 2.5]}
+    assert here == 45
+    with _elsewhere(lambda: 1 / 0) as got:  # a failure there: None, nothing raised or printed here
+        assert got() is None
+
+
+def test_a_forked_process_only_beside_a_spare_core(monkeypatch):
+    import os
+
+    import snrgain.outputs.drawing as drawing
+    import snrgain.tools.layout as layout
+
+    monkeypatch.setattr(os, "sched_getaffinity", lambda pid: {0, 1}, raising=False)
+    monkeypatch.setattr(drawing, "workers", lambda count: 2)
+    monkeypatch.setattr(os, "getloadavg", lambda: (1.2, 1.0, 1.0))
+    assert layout._spare_core()
+    monkeypatch.setattr(os, "getloadavg", lambda: (3.0, 1.0, 1.0))  # busy: no second process
+    assert not layout._spare_core()
+    monkeypatch.setattr(drawing, "workers", lambda count: 1)  # one core, no fork, or SNRGAIN_WORKERS=1
+    monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
+    assert not layout._spare_core()

@@ -169,3 +169,21 @@ def test_wire_modes_read_back_without_loading_the_modal_solver(tmp_path):
     assert run()[-1] == "True"  # solved, and kept
     assert run()[-1] == "False"  # read back
     assert len(list(tmp_path.rglob("wiremode-*.npy"))) == 1
+
+
+@needs_p372
+def test_a_warm_rank_does_not_load_numpy_ma(tmp_path):
+    # np.unique and np.median of plain arrays import numpy.ma (about 15 ms) to look for masks; a warm rank's path
+    # (the sky cache filled by a first run) uses their mask-free forms (snrgain.model.spread.median)
+    code = (
+        "import sys\nfrom click.testing import CliRunner\nfrom snrgain.cli.main import cli\n"
+        f"r = CliRunner().invoke(cli, ['rank', {str(REPO / 'benchmarks' / 'realistic-site.toml')!r}])\n"
+        "assert r.exit_code == 0, r.output\nprint('numpy.ma' in sys.modules)\n"
+    )
+    env = {**os.environ, "SNRGAIN_P372_DIR": str(P372_DIR), "SNRGAIN_CACHE_DIR": str(tmp_path)}
+    env.pop("SNRGAIN_NO_CACHE", None)
+    runs = [
+        subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=REPO, env=env)
+        for _ in range(2)
+    ]
+    assert runs[1].stdout.split()[-1] == "False"

@@ -109,3 +109,19 @@ def test_over_hours_rows_equal_row_by_row(hours):
     got = spread.over_hours_rows(values, masks, hours)
     want = np.array([[spread.over_hours(v[t][masks[t]], hours) for t in range(3)] for v in values])
     assert got.tobytes() == want.tobytes()
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_median_is_numpys(seed):
+    # spread.median takes np.median's steps without numpy.ma: the same values, NaN where the values hold one
+    rng = np.random.default_rng(seed)
+    for shape in [(1,), (7,), (8,), (3, 5), (4, 6), (2, 3, 4)]:
+        a = rng.normal(0.0, 5.0, shape)
+        if seed % 2:
+            a.flat[rng.integers(a.size)] = np.nan
+        for axis in [None, *range(a.ndim)]:
+            want = np.median(a, axis=axis)
+            got = spread.median(a, axis=axis)
+            assert np.shape(got) == np.shape(want)
+            np.testing.assert_array_equal(got, want)
+    assert spread.median(np.array([3, 1, 2])) == 2.0  # integers: np.median's own

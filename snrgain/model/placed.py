@@ -373,6 +373,8 @@ def fields_ahead(sc, per_ground) -> None:
                 p = _known_by_groups(antennas)
                 routes = feedline.route_points_ahead(sc, antennas, src, kind, f, ground)
                 plan = _prefetch_plan(antennas, src, f, ref_m, ground, kind, p, extra=routes)
+                done = _ahead_key(antennas, src, kind, ground, f)
+                _WORKED_AHEAD.get(done, lambda antennas=antennas: tuple(antennas))
                 if plan is None:
                     continue
                 q, z = plan.points()
@@ -382,6 +384,15 @@ def fields_ahead(sc, per_ground) -> None:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
                 for plan, part in zip(plans, e):
                     _prefetch_keep(plan, part)
+
+
+_WORKED_AHEAD = Memo(256)
+"""What :func:`fields_ahead` worked ahead (:func:`_ahead_key`), held with the antennas so their ids stay their own:
+:func:`pickup` then skips its own prefetch for them (its memos hold what it would work)."""
+
+
+def _ahead_key(antennas, src, kind: str, ground, freq_hz: float) -> tuple:
+    return (tuple(id(a) for a in antennas), _source_key(src, kind), _ground_key(ground), float(freq_hz))
 
 
 def _known_by_groups(antennas) -> np.ndarray:
@@ -535,15 +546,16 @@ def _emfs_one_call(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.nd
 
 
 def _prefetch_wire_emfs(
-    antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=()
+    antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=(), others=()
 ) -> None:
     """Put in :data:`_EMFS` the EMFs of every long wire of ``antennas`` standing alone at its place whose power is
     not known (NaN in ``p``) and whose EMFs are not held, the source's field at all of them worked in one call of
     :func:`field_vector` (the wires of a run one source at a time: a call's own cost is that of a few hundred
     points).  The keys are those :func:`wire_feed_current` asks for (the same samples); one it would not ask for
     is only work wasted, never a wrong EMF (the samples are in the key).  ``extra``: [(points, heights, keep)] also
-    worked in that call, each part handed to ``keep`` (the feed lines' routes: snrgain.model.feedline)."""
-    plan = _prefetch_plan(antennas, src, freq_hz, reference_m, ground, kind, p, extra=extra)
+    worked in that call, each part handed to ``keep`` (the feed lines' routes: snrgain.model.feedline); ``others``:
+    long wires whose EMFs alone are worked in that call too (:func:`_others_ahead`)."""
+    plan = _prefetch_plan(antennas, src, freq_hz, reference_m, ground, kind, p, extra=extra, others=others)
     if plan is None:
         return
     q, z = plan.points()
@@ -556,6 +568,7 @@ class _Plan:
     heights) and the ``extra`` parts (points, heights, keep), in the order of :meth:`points`."""
 
     def __init__(self, src, freq_hz, reference_m, ground, kind, todo, compact, extra):
+        # todo: (key, wire, feeds, samples, unit vector, (points, heights), whether its amplitudes are kept)
         self.src, self.freq_hz, self.reference_m, self.ground, self.kind = src, freq_hz, reference_m, ground, kind
         self.todo, self.compact, self.extra = todo, compact, list(extra)
         self._points = None
@@ -571,12 +584,16 @@ class _Plan:
         return self._points
 
 
-def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=()):
-    """:func:`_prefetch_wire_emfs`' :class:`_Plan` at one ground, None when fewer than two parts are to be worked."""
+def _prefetch_plan(
+    antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, *, extra=(), others=()
+):
+    """:func:`_prefetch_wire_emfs`' :class:`_Plan` at one ground, None when fewer than two parts are to be worked;
+    ``others``: wires whose EMFs alone are worked (no amplitudes: not among the antennas asked for)."""
     least = table_min_points()
     todo, seen = [], set()
-    for k, a in enumerate(antennas):
-        if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
+    own = len(antennas)
+    for k, a in enumerate([*antennas, *others]):
+        if k < own and (np.isfinite(p[k]) or not a.integrates_near_sources or a.composite):
             continue
         point = antenna_point(a, reference_m)
         # a termination search's resistors: one wire's EMFs (the loads do not enter them)
@@ -585,7 +602,9 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
         if geometry in seen:
             continue
         seen.add(geometry)
-        place = (geometry, _source_key(src, kind), float(freq_hz))
+        # the line enters the samples only where its own wavelength sets the step (a wire on the soil): an
+        # overhead wire's place is the same over every ground of a spread
+        place = (geometry[:-1], _line_step(geometry[-1], freq_hz), _source_key(src, kind), float(freq_hz))
         feeds, u, x = _PLACES.get(place, lambda a=a, point=point: _wire_place(a, point, src, freq_hz))
         if len(x) >= least:
             continue
@@ -593,7 +612,8 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
         if key in _EMFS or key in seen:
             continue
         seen.add(key)
-        todo.append((key, a, feeds, x, u, _emf_points(a, feeds, x, u)))
+        points = _POINTS.get(place, lambda a=a, feeds=feeds, x=x, u=u: _read_only(_emf_points(a, feeds, x, u)))
+        todo.append((key, a, feeds, x, u, points, k < own))
     compact = _compact_points(antennas, src, freq_hz, reference_m, ground, kind, p, seen)
     if len(todo) + len(compact) + len(extra) < 2:
         return None
@@ -603,6 +623,24 @@ def _prefetch_plan(antennas, src, freq_hz: float, reference_m, ground, kind: str
 _PLACES = Memo(1024)
 """A long wire's place before a placed source (:func:`_wire_place`), by its geometry, the source and the frequency:
 the same at every ground of a spread and for every resistor a termination search tries."""
+_POINTS = Memo(1024)
+"""A long wire's points before a placed source (:func:`_emf_points`), by :data:`_PLACES`' key: the same at every
+ground of a spread where the line does not set the samples."""
+
+
+def _read_only(arrays: tuple) -> tuple:
+    for v in arrays:
+        v.flags.writeable = False
+    return arrays
+
+
+def _line_step(gamma: complex, freq_hz: float):
+    """What of a wire's line enters its samples (:func:`snrgain.physics.reciprocity.sample_steps`): its propagation
+    constant where the line's own step is shorter than free space's, else None (the samples are free space's)."""
+    from snrgain.physics.reciprocity import STEPS_PER_LINE_WAVELENGTH, STEPS_PER_WAVELENGTH
+
+    free = 2 * np.pi / (2 * np.pi * freq_hz / C_M_PER_S) / STEPS_PER_WAVELENGTH  # as sample_steps works it
+    return gamma if 2 * np.pi / abs(gamma) / STEPS_PER_LINE_WAVELENGTH < free else None
 
 
 def _wire_place(a, point, src, freq_hz: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -630,8 +668,10 @@ def _prefetch_keep(plan: _Plan, e: np.ndarray) -> None:
     todo, compact = plan.todo, plan.compact
     parts = np.split(e, np.cumsum([len(q) for q, _ in plan.parts()])[:-1])
     el = np.array([src.elevation_rad])
-    for (key, a, feeds, x, u, _), part in zip(todo, parts):
+    for (key, a, feeds, x, u, _, amplitudes), part in zip(todo, parts):
         emf, lead = _EMFS.get(key, lambda a=a, feeds=feeds, x=x, u=u, part=part: _emfs_from(a, feeds, x, u, part))
+        if not amplitudes:
+            continue
         # and its amplitudes, as received_amplitudes works them out for the wire standing alone (one call less each)
         i_f = complex(_through_line(a, freq_hz, x, emf, lead)[0])
         amp = port_response(freq_hz, np.array([i_f]), load_ohm=a.receiver_load_ohm(freq_hz), elevation_rad=el)
@@ -1137,6 +1177,7 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         return {}, {}
     ground = sc.site.ground if ground is None else ground
     ref_m = antennas[0].params.position or (0.0, 0.0)
+    others = _others_ahead(sc, antennas, ground)
     shares, out_powers = {}, {}
     for src in placed:
         have = powers.get(src.name) if powers is not None else None
@@ -1146,8 +1187,15 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         for kind, _ in dipoles(src):
             from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
 
-            routes = feedline.route_points_ahead(sc, antennas, src, kind, sc.freq_hz, ground)
-            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p, extra=routes)
+            if not others and _ahead_key(antennas, src, kind, ground, sc.freq_hz) in _WORKED_AHEAD:
+                continue  # fields_ahead worked it (a spread's other grounds)
+            ahead = others
+            if others:  # once per source for the same other wires (a layout asking place after place)
+                key = (tuple(id(a) for a in others), _source_key(src, kind), _ground_key(ground), float(sc.freq_hz))
+                ahead = [] if key in _AHEAD else others
+                _AHEAD.get(key, lambda: tuple(others))  # held with the wires, so their ids stay their own
+            routes = feedline.route_points_ahead(sc, [*antennas, *ahead], src, kind, sc.freq_hz, ground)
+            _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p, extra=routes, others=ahead)
         _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
@@ -1162,6 +1210,27 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
             )
         shares[src.name], out_powers[src.name] = scale, p
     return shares, out_powers
+
+
+_AHEAD = Memo(64)
+"""The other wires (:func:`_others_ahead`) already worked ahead for a source, dipole, ground and frequency."""
+OTHERS_AHEAD = 16
+"""At most this many of a scenario's other long wires have their EMFs worked ahead (:func:`_others_ahead`)."""
+
+
+def _others_ahead(sc, antennas, ground) -> list:
+    """The scenario's long wires standing on the site's ground that ``antennas`` leave out (a termination search
+    takes its reference's products first, then one candidate's resistors at a time): their EMFs from each placed
+    source, and their feed lines' routes', are worked in the same call of the field as the antennas' own, one call
+    per source for the run rather than one per candidate (the loads, which the resistors change, do not enter the
+    EMFs).  Empty on another ground (a spread's, worked ahead by :func:`fields_ahead`), when every antenna of the
+    scenario is asked, or past :data:`OTHERS_AHEAD`."""
+    every = getattr(sc, "antennas", None)
+    if ground is not sc.site.ground or not every or len(every) <= len(antennas):
+        return []
+    asked = {id(a) for a in antennas}
+    out = [a for a in every if id(a) not in asked and a.integrates_near_sources and not a.composite]
+    return out if len(out) <= OTHERS_AHEAD else []
 
 
 def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:

@@ -76,6 +76,27 @@ def products(sc: Scenario, antennas, grid, skies, *, ground=None, strength_db=No
     return Products(antennas, gains, temps, powers, ground, fl_temps)
 
 
+def unheard(sc: Scenario, ant, grid, skies, ref: Products, placed_names) -> Products:
+    """Products of [reference, ``ant``] with no placed source heard by ``ant`` (its powers NaN, to be worked where it
+    stands, with its other places): its gains and its sky temperatures (the placed sources' rows through the
+    reference's pattern, each antenna's share of them set by :func:`products` from the powers), the reference's as
+    ``ref`` (products of the reference alone or with others, the reference first) holds them.  What
+    ``products(known=...)`` of one design at many places takes from them, so a first place's pickup is not worked
+    on its own (snrgain.tools.layout)."""
+    g = snr.antenna_gains([ant], sc.freq_hz, grid, sc.targets)
+    gains = snr.Gains(
+        [ref.gains.caches[0], g.caches[0]],
+        np.concatenate([ref.gains.toward[:1], g.toward]),
+        np.concatenate([ref.gains.mean[:1], g.mean]),
+    )
+    names = list(placed_names)
+    temps = snr.sky_temperatures(gains, skies, pickup={n: np.ones(2) for n in names})
+    by = temps.by_component.copy()
+    by[:, 0] = ref.temps.by_component[:, 0]  # the placed sources' rows with the reference's own share
+    powers = {n: np.array([ref.powers[n][0], np.nan]) for n in names}
+    return Products((ref.antennas[0], ant), gains, snr.Temperatures(by, by.sum(axis=0)), powers, ref.ground)
+
+
 def _known_rows(antennas: tuple, known: Products | None) -> list:
     """For each antenna, the row of ``known`` holding it (the same object, or the same antenna at another place:
     ``gain_key``), or None."""

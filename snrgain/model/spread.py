@@ -368,11 +368,38 @@ class Histogram:
         return float(self.weights[max(k, 0) :].sum() / self.weights.sum())
 
 
+def median(values, axis: int | None = None):
+    """``np.median(values, axis)``, the same value by the same steps (a partition, the mean of the middle one or
+    two, NaN where a NaN is among the values), without numpy.ma, which np.median imports to look for a mask (about
+    15 ms of a command's start).  Integer and empty input go to np.median itself."""
+    a = np.asarray(values)
+    size = a.size if axis is None else a.shape[axis]
+    if size == 0 or a.dtype.kind not in "fc":
+        return np.median(a, axis=axis)
+    kth = [size // 2 - 1, size // 2, -1] if size % 2 == 0 else [(size - 1) // 2, -1]
+    part = np.partition(a, kth, axis=axis)
+    if part.shape == ():
+        return part.item()
+    ax = 0 if axis is None else axis
+    index = part.shape[ax] // 2
+    middle = [slice(None)] * part.ndim
+    middle[ax] = slice(index, index + 1) if part.shape[ax] % 2 else slice(index - 1, index + 1)
+    out = np.mean(part[tuple(middle)], axis=ax)
+    last = part.take(-1, axis=ax)  # a NaN is partitioned to the end
+    nan = np.isnan(last)
+    if not nan.any():
+        return out
+    if isinstance(out, np.generic):
+        return last
+    np.copyto(out, last, where=nan)
+    return out
+
+
 def over_hours(values_db, hours: bool) -> float:
     """The one statistic over a target's months and hours of nominal SNR gains [dB]: their median, or with the
     hours not counted as a spread (``[uncertainty] hours = false``) their mean in dB."""
     v = np.asarray(values_db, dtype=float)
-    return float(np.median(v) if hours else np.mean(v))
+    return float(median(v) if hours else np.mean(v))
 
 
 def over_hours_rows(values_db, masks, hours: bool) -> np.ndarray:
@@ -384,7 +411,7 @@ def over_hours_rows(values_db, masks, hours: bool) -> np.ndarray:
     out = np.empty(v.shape[:2])
     for t, mask in enumerate(masks):
         cells = v[:, t][:, mask]  # (rows, cells listened)
-        out[:, t] = np.median(cells, axis=1) if hours else [np.mean(row) for row in cells]
+        out[:, t] = median(cells, axis=1) if hours else [np.mean(row) for row in cells]
     return out
 
 

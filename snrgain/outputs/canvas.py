@@ -17,11 +17,14 @@ are fixed: in the figures' processes of the command line (:func:`remember_text`,
 from __future__ import annotations
 
 import os
+from collections import OrderedDict
 
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.backends.backend_svg import RendererSVG as _RendererSVG
+from matplotlib.font_manager import fontManager as _fontManager
 from matplotlib.ft2font import FT2Font
 from matplotlib.text import Text
+from matplotlib.textpath import TextToPath
 
 _REMEMBER = False
 """Whether :func:`new_canvas` gives the remembering canvas (the command line's figures' processes)."""
@@ -32,11 +35,15 @@ LIMIT = 50_000
 _MEASURED: dict = {}  # (text, font, dpi, hinting) -> (width, height, descent)
 _LAID_OUT: dict = {}  # (text, font, dpi, hinting, features, language) -> the glyphs as _layout gives them
 _HEIGHTS: dict = {}  # (font, dpi) -> (ascent, descent, line gap) of the font's tables
+_GLYPHS: dict = {}  # (text, font files, features, language) -> the SVG writer's glyphs and their places
+_OUTLINES: dict = {}  # a glyph's name in the SVG writer -> its outline (vertices, codes)
+_FILES: dict = {}  # id of a font object of this process -> (the object, the font files it reads)
 
 # A forked process opens the fonts anew (matplotlib empties its font cache there: FreeType's objects are not to be
 # shared), so the glyphs laid out here, which name this process' font objects, are not for it; the numbers are.
 if hasattr(os, "register_at_fork"):  # not on Windows, which does not fork
     os.register_at_fork(after_in_child=_LAID_OUT.clear)
+    os.register_at_fork(after_in_child=_FILES.clear)
 
 
 def remember_text(on: bool = True) -> bool:
@@ -56,9 +63,8 @@ def remember_text(on: bool = True) -> bool:
 
 def forget() -> None:
     """Forget every text measured or laid out."""
-    _MEASURED.clear()
-    _LAID_OUT.clear()
-    _HEIGHTS.clear()
+    for store in (_MEASURED, _LAID_OUT, _HEIGHTS, _GLYPHS, _OUTLINES, _FILES):
+        store.clear()
 
 
 def new_canvas(fig):
@@ -168,9 +174,62 @@ class RememberingCanvas(FigureCanvasAgg):
         return self.renderer
 
 
+class RememberingTextToPath(TextToPath):
+    """matplotlib's text-to-path converter, with each text's glyphs and places (the font laid out unhinted at a
+    fixed size) and each glyph's outline found once for the process: the SVG writer draws every text as paths,
+    laying the text out and loading each of its glyphs through FreeType again for every text (a fifth of an SVG
+    figure's time)."""
+
+    def _get_font(self, prop):
+        font = super()._get_font(prop)
+        if id(font) not in _FILES:  # the object is kept with its files, so its id names no other while kept
+            _keep(_FILES, id(font), (font, tuple(_fontManager._find_fonts_by_props(prop))))
+        return font
+
+    def get_glyphs_with_font(
+        self, font, s, glyph_map=None, return_new_glyphs_only=False, *, features=None, language=None
+    ):
+        known = _FILES.get(id(font))
+        try:
+            key = None if known is None or known[0] is not font else (s, known[1], features, language)
+            hash(key)
+        except TypeError:
+            key = None
+        if key is None:
+            return super().get_glyphs_with_font(
+                font, s, glyph_map, return_new_glyphs_only, features=features, language=language
+            )
+        placed = _GLYPHS.get(key)
+        if placed is None or any(name not in _OUTLINES for name, _, _ in placed):
+            info, outlines, _ = super().get_glyphs_with_font(font, s, features=features, language=language)
+            for name, outline in outlines.items():
+                _keep(_OUTLINES, name, outline)
+            placed = _keep(_GLYPHS, key, tuple((name, x, y) for name, x, y, _ in info))
+        # As TextToPath.get_glyphs_with_font answers: the glyphs not in ``glyph_map`` in the order met, added to it
+        # unless only those are asked for.
+        if glyph_map is None:
+            glyph_map = OrderedDict()
+        new = OrderedDict() if return_new_glyphs_only else glyph_map
+        for name, _, _ in placed:
+            if name not in glyph_map:
+                new[name] = _OUTLINES[name]
+        return [(name, x, y, 1.0) for name, x, y in placed], new, []
+
+
+_TEXT_TO_PATH = None
+
+
 class RememberingSVGRenderer(_RendererSVG):
-    """matplotlib's SVG renderer, with each text's measure (as paths: the font unhinted at a fixed size, scaled)
-    and font heights found once for the process; used by the SVG writer where :func:`remember_text` is on."""
+    """matplotlib's SVG renderer, with each text's measure (as paths: the font unhinted at a fixed size, scaled),
+    glyphs (:class:`RememberingTextToPath`) and font heights found once for the process; used by the SVG writer
+    where :func:`remember_text` is on."""
+
+    def __init__(self, *args, **kwargs):
+        global _TEXT_TO_PATH
+        super().__init__(*args, **kwargs)
+        if _TEXT_TO_PATH is None:
+            _TEXT_TO_PATH = RememberingTextToPath()
+        self._text2path = _TEXT_TO_PATH
 
     def get_text_width_height_descent(self, s, prop, ismath):
         if ismath:

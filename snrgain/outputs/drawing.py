@@ -168,7 +168,8 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
 
     restore = _tight_bbox.adjust_bbox(fig, Bbox.from_extents(-m, -m, w + m, h + m), canvas.get_renderer())
     try:
-        canvas.draw()
+        with ticks_once(fig):
+            canvas.draw()
         image = np.asarray(canvas.buffer_rgba())
     finally:
         restore()
@@ -222,7 +223,8 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     buf = io.BytesIO()
     fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
     try:
-        fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
+        with ticks_once(fig):
+            fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
     finally:
         fig.canvas.mpl_disconnect(cid)
         if engine is not None:
@@ -255,6 +257,42 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
         with open(target, "wb") as f:
             f.write(data)
     return True
+
+
+@contextlib.contextmanager
+def ticks_once(fig):
+    """A context in which each axis of ``fig`` places its ticks once for as long as nothing it places them by
+    changes (its view limits, its axes' box, the figure's resolution), not at every ask: a draw asks each axis for
+    its ticks as it draws them and again as it places the axis' label, the box measured after the draw (an SVG's,
+    :func:`_svg_one_draw`) once more, every time finding the tick positions and formatting their labels anew (a
+    tenth of an SVG figure's time).  The same ticks, labels and picture; the axes as they were after."""
+    axes = [axis for ax in fig.axes for axis in ax._axis_map.values() if "_update_ticks" not in vars(axis)]
+    for axis in axes:
+        axis._update_ticks = _placed_once(axis, axis._update_ticks)
+    try:
+        yield
+    finally:
+        for axis in axes:
+            vars(axis).pop("_update_ticks", None)
+
+
+def _placed_once(axis, update):
+    """``update`` (an axis' ``_update_ticks``) answered again while its inputs stay as they were."""
+    kept: list = []
+
+    def once():
+        key = (
+            tuple(float(v) for v in axis.get_view_interval()),
+            tuple(axis.axes.bbox.bounds),
+            axis.get_figure(root=True).dpi,
+        )
+        if kept and kept[0] == key:
+            return list(kept[1])
+        ticks = update()
+        kept[:] = [key, list(ticks)]
+        return ticks
+
+    return once
 
 
 def _write_png(target, rgba, dpi: float, pil_kwargs: dict | None) -> None:
@@ -360,13 +398,42 @@ def tight_box(fig, fmt: str, dpi: float | str | None = None, pad: float | None =
         fig.dpi = old
 
 
-def warm_up(fmt: str = "png", modules: Sequence[str] = ()) -> None:
-    """Import matplotlib, its writer for ``fmt`` and ``modules``, and draw a small figure once, so the fonts are
-    loaded and the first-use work done before the real figures (and before workers fork: each inherits it)."""
+def warm_up(fmt: str = "png", modules: Sequence[str] = (), *, draw: bool = True) -> None:
+    """Import matplotlib, its writer for ``fmt`` and ``modules``, and (``draw``) draw a small figure once, so the
+    fonts are found and the first-use work done before the real figures (and before workers fork: each inherits
+    it).  matplotlib's 3D axes, which no figure here uses, are left unimported (:func:`_import_matplotlib`)."""
     import importlib
 
+    _import_matplotlib()
     for name in modules:
         importlib.import_module(name)
+    if draw:
+        warm_up_figure(fmt)
+
+
+def _import_matplotlib() -> None:
+    """Import matplotlib's figure and axes without its 3D axes: matplotlib.projections registers them by
+    importing mpl_toolkits.mplot3d (a tenth of matplotlib's import time), which, where it fails, matplotlib lets go
+    with a warning and leaves the 3D projection out.  Here it is made to fail, quietly, and importable again
+    after (an ``Axes3D`` asked for later is imported then, unregistered).  Nothing where matplotlib's axes are
+    imported already."""
+    import sys
+    import warnings
+
+    if "matplotlib.projections" in sys.modules or "mpl_toolkits.mplot3d" in sys.modules:
+        return
+    sys.modules["mpl_toolkits.mplot3d"] = None  # an import of it raises ImportError
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            import matplotlib.figure  # noqa: F401
+    finally:
+        if sys.modules.get("mpl_toolkits.mplot3d", 0) is None:
+            del sys.modules["mpl_toolkits.mplot3d"]
+
+
+def warm_up_figure(fmt: str = "png") -> None:
+    """Draw a small figure once (:func:`warm_up`): the fonts found, the writer's first-use work done."""
     from matplotlib.figure import Figure
 
     fig = Figure(figsize=(2.0, 1.5))
@@ -393,6 +460,15 @@ def _worker_start(parent: int) -> None:
         pass
     if os.getppid() != parent:  # the command died before the line above took effect
         os._exit(1)
+
+
+def _warmed(fmt: str) -> bool:
+    """:func:`warm_up_figure` in the figures' helper; True (done, or failed: only time lost)."""
+    try:
+        warm_up_figure(fmt)
+    except Exception:
+        pass
+    return True
 
 
 def _drawing_worker_start(parent: int) -> None:
@@ -590,9 +666,10 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
 
     _worker_start(parent)
     try:
-        warm_up(fmt, modules)
+        warm_up(fmt, modules, draw=False)  # the figure drawn ahead warms up instead, else the one below
     except Exception:  # any real problem comes back when the figures are drawn
         pass
+    warm = False
     # What is loaded now (matplotlib, the fonts) and later the jobs stay for good: out of the cyclic collector's
     # reach, its passes while the figures are drawn walk only the figures' own objects (a full pass over
     # matplotlib's and the results' objects took 50-90 ms in a worker).
@@ -602,7 +679,10 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
     steps: list = []  # preparations given as iterators, taken a step at a time while no message waits
     while True:
         try:
-            while steps and not conn.poll():
+            while (steps or not warm) and not conn.poll():
+                if not warm:  # first: the work each figure would do first, done once for all
+                    warm = _warmed(fmt)
+                    continue
                 try:
                     next(steps[0])
                 except Exception:  # done (StopIteration), or failed: only time lost, the figures make their own
@@ -623,8 +703,11 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
         _, key, (make, kind, savefig) = message
         try:
             early[key] = figure_bytes(make(), kind, **savefig)
+            warm = True
         except Exception:  # drawn again with the others, where its error is the command's
             pass
+    if not warm:
+        _warmed(fmt)
     gc.freeze()  # the results, inherited by the workers
     try:
         _, jobs, cost, ahead = message

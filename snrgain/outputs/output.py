@@ -230,8 +230,10 @@ def target_table(r: Results, i: int, lab=None):
     spread = lab.get("snr_gain_quantile_db", target=i)  # (antenna, quantile): 10 %, median, 90 % [dB]
     ranks = lab.get("rank_for_target", target=i)
     is_reference = lab.coord("is_reference")
+    from snrgain.model.spread import median  # np.median's, without loading numpy.ma
+
     for k in np.argsort(ranks, kind="stable"):  # the reference (rank 0), then the ranking
-        noise = float(np.median(lab.get("noise_dbm", antenna=k)))
+        noise = float(median(lab.get("noise_dbm", antenna=k)))
         margin = float(np.min(lab.get("margin_db", antenna=k)))
         limited = bool(lab.get("receiver_limited", antenna=k))
         if bool(is_reference[k]):

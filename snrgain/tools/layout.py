@@ -40,6 +40,7 @@ written.  Its worth is, over the targets nearest its states' bearings, each targ
 
 from __future__ import annotations
 
+from contextlib import contextmanager
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -218,6 +219,13 @@ class Problem:
             hit = self._sky[key] = (ant, p)
         return hit
 
+    def unheard_products(self, ant):
+        """Products of [reference, ``ant``] with no placed source heard by ``ant`` yet (its powers NaN: worked where
+        it stands, with its other places); :func:`snrgain.model.products.unheard`."""
+        from snrgain.model.products import unheard
+
+        return unheard(self.sc, ant, self.grid, self.skies, self.ref, [s.name for s in self.placed])
+
     @staticmethod
     def _key(i: int, bearing_rad: float | None, length_m: float | None) -> tuple:
         """The key of a (bearing, length) of candidate i in the designs already made."""
@@ -239,11 +247,20 @@ class Problem:
         if self.switched[i]:
             return self.switched_gains_db(designs, i, exact=exact)
         d0 = designs[0]
-        if len(designs) == 1 and self._key(i, d0.bearing_rad, d0.length_m) not in self._sky:
+        key = self._key(i, d0.bearing_rad, d0.length_m)
+        fresh = key not in self._sky
+        if len(designs) == 1 and fresh:
             # One new design at one place (the refinement's steps): its products made once where it stands, not
             # first unplaced (a placed source's pickup worked for nothing) and then placed.
             ants = [self.antenna(i, d0.bearing_rad, d0.length_m).at((d0.east_m, d0.north_m))]
             known = self.ref
+        elif fresh:
+            # A new design at many places (the grid's, a refinement's stencil): its gains and sky temperatures made
+            # once (:meth:`unheard_products`), the placed sources heard at every place in one batch, the first place
+            # too (not on its own first); the products kept for the design's next places.
+            ant0 = self.antenna(i, d0.bearing_rad, d0.length_m).at((d0.east_m, d0.north_m))
+            ants = [ant0] + [ant0.at((d.east_m, d.north_m)) for d in designs[1:]]
+            known = self.unheard_products(ant0)
         else:
             ant0, known = self.design_products(i, d0.bearing_rad, d0.length_m, at_m=(d0.east_m, d0.north_m))
             # the antenna the design's products were made with, where it stands: its pickup is taken from them
@@ -256,6 +273,8 @@ class Problem:
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         with tabled():  # the search's own scores: the source's field read from its tables at every place
             p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
+        if fresh and len(designs) > 1:  # kept for the design's next places: the reference and its first place
+            self._sky[key] = (ants[0], _first_two(p))
         gains = _statistic(sub, pipeline.snr_gains(sub, p), self.target[i][0])[1:]
         return gains - self.tx_costs_db(ants)
 
@@ -515,19 +534,9 @@ class Problem:
         """The best layouts, best first (module docstring); ``progress(done, total)`` is called as the grid runs."""
         per = []
         feasible = [self.feasible(i) for i in range(len(self.names))]  # geometry first: a dead end says so at once
-        total = sum(len(f) for f in feasible)
-        done = 0
-        for i, designs in enumerate(feasible):
-            found = []
-            same: dict[tuple, list[Design]] = {}  # one design (bearing, length) at many places: scored at once
-            for d in designs:
-                same.setdefault((d.bearing_rad, d.length_m), []).append(d)
-            for group in same.values():
-                found += list(zip((float(g) for g in self.snr_gains_db(group, i)), group))
-                done += len(group)
-                if progress is not None:
-                    progress(done, total)
-            found.sort(key=lambda x: -x[0])
+        scores = self.grid_all(feasible, progress)
+        for found in scores:
+            found = sorted(found, key=lambda x: -x[0])
             top = max(2, int(MAX_COMBINATIONS ** (1.0 / len(feasible))))
             per.append(_distinct(found, min(TOP_PER_CANDIDATE, top)))
         # Every combination of the kept designs, best total first, until enough keep clear of one another.
@@ -550,10 +559,66 @@ class Problem:
                 f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} of one another; widen the ranges or "
                 "the lot"
             )
-        layouts = [self._layout(designs) for designs in chosen]
-        layouts[0] = self.refine(layouts[0])
+        for i, d in enumerate(chosen[0]):  # the refinement's start as the grid left it, also if scored elsewhere
+            if self._key(i, d.bearing_rad, d.length_m) not in self._sky and not self.switched[i]:
+                self.snr_gains_db(
+                    [g for g in feasible[i] if (g.bearing_rad, g.length_m) == (d.bearing_rad, d.length_m)], i
+                )
+        if len(chosen) > 1 and _spare_core():  # the next-best layouts scored in a forked process meanwhile
+            with _elsewhere(lambda: [self._layout(designs) for designs in chosen[1:]]) as theirs:
+                layouts = [self.refine(self._layout(chosen[0]))]
+                rest = theirs()
+            layouts += rest if rest is not None else [self._layout(designs) for designs in chosen[1:]]
+        else:
+            layouts = [self._layout(designs) for designs in chosen]
+            layouts[0] = self.refine(layouts[0])
         layouts.sort(key=lambda lay: -lay.worth_db)
         return layouts
+
+    def grid_scores(self, i: int, designs: list[Design], step=None) -> list[tuple[float, Design]]:
+        """(score, design) of each of candidate i's feasible grid designs, a (bearing, length) at all its places in
+        one call (:meth:`snr_gains_db`), in the grid's order; ``step(n)`` is called as n more are scored."""
+        found = []
+        same: dict[tuple, list[Design]] = {}  # one design (bearing, length) at many places: scored at once
+        for d in designs:
+            same.setdefault((d.bearing_rad, d.length_m), []).append(d)
+        for group in same.values():
+            found += list(zip((float(g) for g in self.snr_gains_db(group, i)), group))
+            if step is not None:
+                step(len(group))
+        return found
+
+    def grid_all(self, feasible: list[list[Design]], progress=None) -> list[list[tuple[float, Design]]]:
+        """:meth:`grid_scores` of every candidate: on a machine with two cores or more (and fork), the last
+        candidates (about half the places) in a forked process while this one scores the first, else one after the
+        other.  The scores are the same either way: a design's score at a place does not depend on what else was
+        scored before it (tested); the forked process's kept products are not kept here (the search makes again the
+        one design of those its refinement starts from)."""
+        total = sum(len(f) for f in feasible)
+        done = [0]
+
+        def step(n):
+            done[0] += n
+            if progress is not None:
+                progress(done[0], total)
+
+        # the candidates from ``split`` on go to the other process: the split nearest half the places
+        split = min(range(1, len(feasible)), key=lambda k: abs(2 * sum(map(len, feasible[k:])) - total), default=0)
+        if not split or not _spare_core():
+            return [self.grid_scores(i, f, step) for i, f in enumerate(feasible)]
+        # the first design scored here first: the tables and kept values it makes (the placed sources' and the
+        # vertical's fields, the sky's groups) are inherited by the other process, not made again there
+        d0 = feasible[0][0]
+        n0 = sum(1 for d in feasible[0] if (d.bearing_rad, d.length_m) == (d0.bearing_rad, d0.length_m))
+        first = self.grid_scores(0, feasible[0][:n0], step)
+        with _elsewhere(lambda: [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]) as theirs:
+            out = [self.grid_scores(i, f[n0:] if i == 0 else f, step) for i, f in enumerate(feasible[:split])]
+            out[0] = first + out[0]
+            rest = theirs()
+        if rest is None:  # the other process failed: its candidates scored here
+            rest = [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]
+        step(sum(len(f) for f in feasible[split:]))
+        return out + list(rest)
 
     def _layout(self, designs) -> Layout:
         """The layout of ``designs`` with each one's SNR gain as the ranking gives it (``exact``)."""
@@ -683,6 +748,84 @@ class Problem:
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
                 return self._layout(ds)
         raise ValueError("layout: no valid random placement found")
+
+
+def _first_two(p):
+    """Products of the reference and the first antenna of ``p`` alone (what a design's next places take from it);
+    ``p`` itself where feed lines are in it."""
+    if p.feed_lines is not None:
+        return p
+    from snrgain.model import snr
+    from snrgain.model.products import Products
+
+    g, t = p.gains, p.temps
+    gains = snr.Gains(g.caches[:2], g.toward[:2], g.mean[:2])
+    temps = snr.Temperatures(t.by_component[:, :2], t.total[:2])
+    powers = {n: v[:2] for n, v in p.powers.items()}
+    return Products(p.antennas[:2], gains, temps, powers, p.ground)
+
+
+def _spare_core() -> bool:
+    """Whether a forked process would run beside this one: two cores or more for it (fork available,
+    snrgain.outputs.drawing.workers, $SNRGAIN_WORKERS) and a load average (the last minute's, this process in it)
+    at least half a core short of the cores; on a machine already busy a second process only adds its start to the
+    work.  The results are the same either way."""
+    import os
+
+    from snrgain.outputs.drawing import workers
+
+    if workers(2) < 2:
+        return False
+    try:
+        cores = len(os.sched_getaffinity(0))
+        load = os.getloadavg()[0]
+    except (AttributeError, OSError):  # not known here
+        return True
+    return load <= cores - 0.5
+
+
+@contextmanager
+def _elsewhere(work):
+    """Runs ``work()`` in a forked process while the ``with`` block runs here; yields ``get()``, which waits for its
+    result (None if it failed or ended without one).  Leaving the block ends the process; Ctrl-C and SIGTERM are
+    left to the command (snrgain.outputs.drawing's workers likewise)."""
+    import multiprocessing
+    import os
+    import sys
+
+    ctx = multiprocessing.get_context("fork")
+    recv, send = ctx.Pipe(duplex=False)
+    for stream in (sys.stdout, sys.stderr):  # nothing buffered to be written twice
+        stream.flush()
+    proc = ctx.Process(target=_elsewhere_run, args=(os.getpid(), work, send), daemon=True)
+    proc.start()
+    send.close()
+
+    def get():
+        try:
+            return recv.recv()
+        except EOFError:
+            return None
+
+    try:
+        yield get
+    finally:
+        recv.close()
+        if proc.is_alive():
+            proc.kill()
+        proc.join()
+
+
+def _elsewhere_run(parent: int, work, send) -> None:
+    from snrgain.outputs.drawing import _worker_start
+
+    _worker_start(parent)
+    try:
+        send.send(work())
+    except Exception:
+        send.send(None)
+    finally:
+        send.close()
 
 
 def plan_data(problem: Problem, layout: Layout) -> dict:
