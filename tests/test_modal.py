@@ -375,18 +375,16 @@ def test_the_integrals_slopes_are_their_derivatives(f, h, sigma, eps, offset):
 
 
 def test_newton_finished_on_both_rules_is_the_check_rules_root(monkeypatch):
-    # Near the root Newton's last coarse step is left out: the coarse and check rules evaluated together there, the
-    # check rule's root one step along the slopes known (modal._settle, finish).  Against the path that takes that
-    # step and checks its root on the check rule: measured within 6.3e-13 relative over 1029 wires (seven grounds,
-    # seven frequencies 0.5-8 MHz, heights 0.3-12 m, three radii, insulated wires on and over the soil).
+    # Near the root the coarse and check rules are evaluated together, and the check rule's root taken one step from
+    # there (Halley's after Newton's first step, or Newton's near the end: modal._settle, finish).  Against the path
+    # that steps on the coarse rule to its root and checks that on the check rule: measured within 6.3e-13 relative
+    # over 1029 wires (seven grounds, seven frequencies 0.5-8 MHz, heights 0.3-12 m, three radii, insulated wires on
+    # and over the soil; 1.0e-12 of the secant's path on the fine rule, the same wires without a mode).
     settle = modal._settle
 
     def without_finish(step, start, tol, plain_steps, step_slope=None, finish=None):
         return settle(step, start, tol, plain_steps, step_slope)
 
-    calls = []
-    sums = modal._earth_sums
-    monkeypatch.setattr(modal, "_earth_sums", lambda rule, *a, **k: calls.append(rule[1].ndim) or sums(rule, *a, **k))
     for sigma, eps in ((0.005, 13.0), (0.001, 5.0), (0.03, 20.0)):
         g = _ground(sigma, eps)
         for f in (1.83e6, 3.6e6, 7.1e6):
@@ -398,11 +396,43 @@ def test_newton_finished_on_both_rules_is_the_check_rules_root(monkeypatch):
                 fast = modal.wire_over_earth.__wrapped__(*args)
                 monkeypatch.setattr(modal, "_settle", without_finish)
                 _same_mode(fast, modal.wire_over_earth.__wrapped__(*args))
-    # the 250 m Beverage's wire: two coarse Newton steps and one pass over both rules
+    # the 250 m Beverage's wire: one coarse Newton step, then Halley's on both rules
     monkeypatch.setattr(modal, "_settle", settle)
-    calls.clear()
+    calls = []
+    sums, curves = modal._earth_sums, modal._earth_curves
+    monkeypatch.setattr(modal, "_earth_sums", lambda *a, **k: calls.append("sums") or sums(*a, **k))
+    monkeypatch.setattr(modal, "_earth_curves", lambda *a, **k: calls.append("curves") or curves(*a, **k))
     f = 1.83e6
     g = _ground(0.005, 13.0)
     start = complex(lines.overhead_wire(f, radius_m=A, height_m=2.5, ground=g, model="closed-form").gamma)
     modal.wire_over_earth.__wrapped__(f, 2.5, A, 13.0, 0.005, complex(lines.wire_internal_impedance(f, A)), start)
-    assert calls == [1, 1, 2]
+    assert calls == ["sums", "curves"]
+
+
+@pytest.mark.parametrize("f, h, sigma, eps, offset", [(1.83e6, 2.5, 0.005, 13, 0.0), (7.1e6, 2e-3, 1e-4, 3, 1.6e-3)])
+def test_the_integrals_curvatures_are_their_slopes_derivatives(f, h, sigma, eps, offset):
+    # Halley's step (modal._earth_curves, modal._image_curve) against central differences of the slopes on the same
+    # rule (step 1e-4 |gamma|: about 1e-6 measured), and its values and slopes against modal._earth_sums.
+    from noisemodels.groundwave import complex_permittivity
+
+    k0 = 2 * np.pi * f / C_M_PER_S
+    n2 = complex_permittivity(f, eps, sigma)
+    g = complex(0.03 * k0, 1.04 * k0)
+    pair = (modal.COARSE_NODES, modal.CHECK_NODES)
+    rules = modal._rules_on(modal._earth_edges(-(g**2 + k0**2), k0, h, n2), pair, offset)
+    lo = modal._rule_of(rules, pair, 0)[0].size
+    first, (p, q, dp, dq, d2p, d2q) = modal._earth_curves(rules, g, k0, h, n2, lo)
+    want = modal._earth_sums(rules, g, k0, h, n2, slopes=True)
+    for got, ref in zip((*first, p, q, dp, dq), (*want[0][:2], *want[1])):
+        assert abs(got - ref) < 1e-13 * abs(ref)
+    d = 1e-4 * abs(g)
+    up, down = (modal._earth_sums(rules, g + s, k0, h, n2, slopes=True)[1] for s in (d, -d))
+    assert abs(d2p - (up[2] - down[2]) / (2 * d)) < 1e-4 * abs(d2p)
+    assert abs(d2q - (up[3] - down[3]) / (2 * d)) < 1e-4 * abs(d2q)
+    lam, dlam, d2lam = modal._image_curve(g, k0, 0.0008, h)
+    assert (lam, abs(dlam - modal._image_slope(g, k0, 0.0008, h)[1]) < 1e-8 * abs(dlam)) == (
+        modal._image_term(g, k0, 0.0008, h),
+        True,
+    )
+    central = (modal._image_slope(g + d, k0, 0.0008, h)[1] - modal._image_slope(g - d, k0, 0.0008, h)[1]) / (2 * d)
+    assert abs(d2lam - central) < 1e-4 * abs(d2lam)
