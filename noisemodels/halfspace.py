@@ -203,33 +203,35 @@ def _te_image_depth(k0: float, n2: complex) -> complex | None:
     return 2 / (1j * k1)
 
 
-def closed_forms(rho, zeta, k0: float, n2: complex, *, laplace=None) -> np.ndarray:
+def closed_forms(rho, zeta, k0: float, n2: complex, *, laplace=None, rows=None) -> np.ndarray:
     """(7, N): the integrals of the subtracted parts (B + zeta C) exp(-lambda zeta) times each row's Bessel factor
-    (``laplace``: :func:`_laplace` of the same points, when already worked)."""
+    (``laplace``: :func:`_laplace` of the same points, when already worked); ``rows``: only those worked (the kind's,
+    :data:`ROWS`), the others left zero."""
     g = _laplace(rho, zeta) if laplace is None else laplace
     zeta = np.asarray(zeta, dtype=float)
-    d_te = _te_image_depth(k0, n2)
-    if d_te is None:
-        te_image = np.zeros(np.shape(zeta), dtype=complex)
-    else:
-        r_d = np.sqrt(np.asarray(rho, dtype=float) ** 2 + (zeta + d_te) ** 2)
-        te_image = -np.exp(-1j * k0 * r_d) / r_d
     kq, a0, a1, c_m = _coefficients(n2)
     k2 = k0**2
-    w_rho = kq * g["1,1/rho"] - c_m * k2 * g["1,-1/rho"] + kq * k2 / 2 * zeta * g["1,0/rho"]
-    dw_drho = kq * g["d1,1"] - c_m * k2 * g["d1,-1"] + kq * k2 / 2 * zeta * g["d1,0"]
-    dw_dzeta = -kq * g["1,2"] + c_m * k2 * g["1,0"] + kq * k2 / 2 * (g["1,0"] - zeta * g["1,1"])
-    return np.array(
-        [
-            kq * (g["0,2"] + k2 * a0 * g["0,0"] + k2 / 2 * zeta * g["0,1"]),
-            kq * (g["1,2"] + k2 * a1 * g["1,0"] + k2 / 2 * zeta * g["1,1"]),
-            te_image,
-            -kq * (g["1,0"] + k2 / 2 * zeta * g["1,-1"]),
-            w_rho,
-            dw_drho,
-            dw_dzeta,
-        ]
+
+    def te_image():
+        d_te = _te_image_depth(k0, n2)
+        if d_te is None:
+            return np.zeros(np.shape(zeta), dtype=complex)
+        r_d = np.sqrt(np.asarray(rho, dtype=float) ** 2 + (zeta + d_te) ** 2)
+        return -np.exp(-1j * k0 * r_d) / r_d
+
+    forms = (
+        lambda: kq * (g["0,2"] + k2 * a0 * g["0,0"] + k2 / 2 * zeta * g["0,1"]),
+        lambda: kq * (g["1,2"] + k2 * a1 * g["1,0"] + k2 / 2 * zeta * g["1,1"]),
+        te_image,
+        lambda: -kq * (g["1,0"] + k2 / 2 * zeta * g["1,-1"]),
+        lambda: kq * g["1,1/rho"] - c_m * k2 * g["1,-1/rho"] + kq * k2 / 2 * zeta * g["1,0/rho"],  # W / rho
+        lambda: kq * g["d1,1"] - c_m * k2 * g["d1,-1"] + kq * k2 / 2 * zeta * g["d1,0"],  # dW / drho
+        lambda: -kq * g["1,2"] + c_m * k2 * g["1,0"] + kq * k2 / 2 * (g["1,0"] - zeta * g["1,1"]),  # dW / dzeta
     )
+    out = np.zeros((7, *np.shape(zeta)), dtype=complex)
+    for r in range(7) if rows is None else rows:
+        out[r] = forms[r]()
+    return out
 
 
 ROWS = {"vertical": (0, 1), "horizontal": (2, 3, 4, 5, 6)}
@@ -397,7 +399,7 @@ class _Table:
         far = rho >= FAR_SHARE_M[0]
         if np.any(far):
             g_rho, g_zeta = np.meshgrid(rho[far], self.zeta, indexing="ij")
-            whole = closed_forms(g_rho.ravel(), g_zeta.ravel(), self.k0, n2)[list(self.rows)]
+            whole = closed_forms(g_rho.ravel(), g_zeta.ravel(), self.k0, n2, rows=self.rows)[list(self.rows)]
             vals[:, far] += _far_share(rho[far])[None, :, None] * whole.reshape(len(self.rows), int(far.sum()), -1)
         r = np.hypot(rho[:, None], self.zeta[None, :])
         self.values = vals * (np.maximum(r, 1.0) * np.exp(1j * self.k0 * r))[None]
@@ -621,7 +623,7 @@ def reflected_grounds(freq_hz: float, n2s, rho, zeta, kind: str) -> np.ndarray:
         near = _near_geometry(rho, zeta, close)
         rc, zc = rho[close], zeta[close]
         for g, (n2, tab) in enumerate(zip(n2s, tabs)):
-            cf = closed_forms(rc, zc, tab.k0, n2, laplace=near[1])
+            cf = closed_forms(rc, zc, tab.k0, n2, laplace=near[1], rows=rows)
             for r in rows:
                 out[g, r, close] += near[0] * cf[r]
     return out

@@ -136,3 +136,29 @@ def test_a_spreads_grounds_worked_ahead_are_not_planned_again_by_their_pickups(m
     snrgain.evaluate(text)
     assert len(placed._WORKED_AHEAD) == 8 * 5  # the spread's eight other grounds, five sources
     assert grounds and len({id(g) for g in grounds}) == 1  # the pickups' own prefetches: the site's ground alone
+
+
+@pytest.mark.parametrize("family, spec", [("beverage", {"length": 200.0, "height": 2.0}), ("bog", {"length": 90.0})])
+def test_a_wires_emfs_from_the_field_at_its_points_are_those_of_the_field_asked_for_to_the_bit(family, spec):
+    from snrgain.antennas import from_si
+    from snrgain.physics.reciprocity import wire_emfs
+
+    wire = from_si(family, bearing=0.7, ground="moist loam", position=(10.0, -20.0), **spec)
+    feeds = np.array([[10.0, -20.0]])
+    u = np.array([np.sin(0.7), np.cos(0.7)])
+    x = placed.wire_samples(wire.length_m, 1.83e6, 40.0)
+    pts, z = placed._emf_points(wire, feeds, x, u)
+    rng = np.random.default_rng(5)
+    e = rng.normal(size=(len(pts), 3)) + 1j * rng.normal(size=(len(pts), 3))
+    by_point = {(*p, h): v for p, h, v in zip(pts.tolist(), z.tolist(), e)}
+
+    def field(q, heights):
+        return np.array([by_point[(*p, h)] for p, h in zip(q.tolist(), np.asarray(heights).tolist())])
+
+    emf, lead = placed._emfs_from(wire, feeds, x, u, e)
+    want_emf, want_lead = wire_emfs(wire, feeds, x, u, field)
+    np.testing.assert_array_equal(emf, want_emf)
+    if want_lead is None:
+        assert lead is None
+    else:
+        np.testing.assert_array_equal(lead, want_lead)

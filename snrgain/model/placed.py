@@ -524,18 +524,15 @@ def _emf_points(wire, feeds, x, u) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _emfs_from(wire, feeds, x, u, e: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
-    """:func:`_emfs` of a wire at one place from the field ``e`` at :func:`_emf_points`' points."""
+    """:func:`_emfs` of a wire at one place from the field ``e`` at :func:`_emf_points`' points (its arithmetic, without
+    the points it would make for a field it is not given)."""
     h = wire.wire_height_m()
     n = len(x) * len(feeds)
-
-    def along(_pts, _h):  # the points along the wire: the first n
-        return e[:n, 0] * u[0] + e[:n, 1] * u[1]
-
-    def leads(_ends, _h):  # up each lead: LEAD_POINTS each, feed end first (as _emfs orders them)
-        _, wq = _lead_rule()
-        return (e[n:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
-
-    return _emfs(wire, feeds, x, u, None, along, leads if wire.has_leads and h > 0 else None)
+    emf = (e[:n, 0] * u[0] + e[:n, 1] * u[1]).reshape(len(feeds), -1)  # the points along the wire: the first n
+    if not (wire.has_leads and h > 0):
+        return emf, None
+    _, wq = _lead_rule()  # up each lead: LEAD_POINTS each, feed end first (as _emfs orders them)
+    return emf, (e[n:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
 
 
 def _emfs_one_call(wire, src, freq_hz, feeds, ground, x, u, kind) -> tuple[np.ndarray, np.ndarray | None]:
@@ -1178,6 +1175,7 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
     ground = sc.site.ground if ground is None else ground
     ref_m = antennas[0].params.position or (0.0, 0.0)
     others = _others_ahead(sc, antennas, ground)
+    keys = None  # _variant_keys, worked once for every source
     shares, out_powers = {}, {}
     for src in placed:
         have = powers.get(src.name) if powers is not None else None
@@ -1196,7 +1194,9 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
                 _AHEAD.get(key, lambda: tuple(others))  # held with the wires, so their ids stay their own
             routes = feedline.route_points_ahead(sc, [*antennas, *ahead], src, kind, sc.freq_hz, ground)
             _prefetch_wire_emfs(antennas, src, sc.freq_hz, ref_m, ground, kind, p, extra=routes, others=ahead)
-        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        if keys is None:
+            keys = _variant_keys(antennas, sc.freq_hz, ref_m)
+        _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p, keys)
         for k in np.flatnonzero(~np.isfinite(p)):
             p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
         if not p[0] > 0:
@@ -1341,31 +1341,45 @@ def _field_power_worked(src, point_m, freq_hz: float, ground) -> float:
     return total
 
 
-def _load_variant_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
-    """Fill ``p`` (NaN where not known) for long wires standing at one place with one geometry and line that differ
-    only in their loads (a termination search's resistors): the EMFs along the wire once (:func:`_source_emfs`, kept),
-    every wire's feed current from them in one pass (snrgain.physics.reciprocity.through_lines), each one's
-    amplitudes kept as :func:`received_amplitudes` keeps them (its feed line reads them)."""
-    from snrgain.antennas.longwire import port_response
-
-    groups: dict[tuple, list[int]] = {}
-    for k, a in enumerate(antennas):
-        if np.isfinite(p[k]) or not a.integrates_near_sources or a.composite:
+def _variant_keys(antennas, freq_hz: float, reference_m) -> list:
+    """Each antenna's place, geometry and line, by which :func:`_load_variant_powers` groups the long wires that
+    differ only in their loads (None for the others)."""
+    out = []
+    for a in antennas:
+        if not a.integrates_near_sources or a.composite:
+            out.append(None)
             continue
         feed = antenna_point(a, reference_m)
         ln = a.line(freq_hz)
-        key = (
-            type(a),
-            float(feed[0]),
-            float(feed[1]),
-            float(a.bearing_rad),
-            float(a.length_m),
-            float(a.wire_height_m()),
-            bool(a.has_leads),
-            complex(ln.gamma),
-            complex(ln.z0),
+        out.append(
+            (
+                type(a),
+                float(feed[0]),
+                float(feed[1]),
+                float(a.bearing_rad),
+                float(a.length_m),
+                float(a.wire_height_m()),
+                bool(a.has_leads),
+                complex(ln.gamma),
+                complex(ln.z0),
+            )
         )
-        groups.setdefault(key, []).append(k)
+    return out
+
+
+def _load_variant_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray, keys=None) -> None:
+    """Fill ``p`` (NaN where not known) for long wires standing at one place with one geometry and line that differ
+    only in their loads (a termination search's resistors): the EMFs along the wire once (:func:`_source_emfs`, kept),
+    every wire's feed current from them in one pass (snrgain.physics.reciprocity.through_lines), each one's
+    amplitudes kept as :func:`received_amplitudes` keeps them (its feed line reads them).  ``keys``:
+    :func:`_variant_keys` of ``antennas`` where the caller has them (the same for every source)."""
+    from snrgain.antennas.longwire import port_response
+
+    keys = _variant_keys(antennas, freq_hz, reference_m) if keys is None else keys
+    groups: dict[tuple, list[int]] = {}
+    for k, key in enumerate(keys):
+        if key is not None and not np.isfinite(p[k]):
+            groups.setdefault(key, []).append(k)
     for group, ks in ((g, ks) for g, ks in groups.items() if len(ks) > 1):
         wires = [antennas[k] for k in ks]
         first = wires[0]
