@@ -436,3 +436,15 @@ def test_the_integrals_curvatures_are_their_slopes_derivatives(f, h, sigma, eps,
     )
     central = (modal._image_slope(g + d, k0, 0.0008, h)[1] - modal._image_slope(g - d, k0, 0.0008, h)[1]) / (2 * d)
     assert abs(d2lam - central) < 1e-4 * abs(d2lam)
+
+
+@pytest.mark.parametrize("counts, offset", [((32, 48), 0.0), ((12, 24, 32), 1.6e-3)])
+def test_a_rule_of_several_holds_each_rule_to_the_bit(counts, offset):
+    # modal._rules_on builds its nodes from the standard ones made once (quadrature.stacked_rules): each rule taken
+    # out of it (modal._rule_of) equals modal._rule_on's own rule on the same edges, bit for bit.
+    edges = [0.0, 0.0039, 0.039, 0.06, 0.082, 0.6, 0.82, 8.0]
+    rules = modal._rules_on(edges, counts, offset)
+    for i, n in enumerate(counts):
+        alone = modal._rule_on(edges, n, offset)
+        for got, want in zip(modal._rule_of(rules, counts, i), alone):
+            assert (got is None and want is None) or np.array_equal(got, want)

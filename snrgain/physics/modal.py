@@ -60,7 +60,7 @@ import numpy as np
 
 from noisemodels.groundwave import complex_permittivity
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M
-from snrgain.physics.quadrature import gauss_legendre
+from snrgain.physics.quadrature import gauss_legendre, stacked_rules
 
 
 def _sqrt_re(z):
@@ -156,7 +156,7 @@ def earth_integrals(
 def _earth_edges(kap0: complex, k0: float, height_m: float, n2: complex) -> list[float]:
     """The integration pieces' edges of :func:`earth_integrals`.  The integrands fall as exp(-2 lambda h): integrate
     to 20 / h.  Break points: the scale of kappa0 (where u0 turns from kappa0 to lambda), the earth's |k1|, 1 / 2h."""
-    return _pieces((abs(np.sqrt(kap0)), abs(np.sqrt(n2)) * k0, 0.5 / height_m), 20.0 / height_m)
+    return _pieces((math.sqrt(abs(kap0)), math.sqrt(abs(n2)) * k0, 0.5 / height_m), 20.0 / height_m)
 
 
 def _earth_integrands(lam2, kap0: complex, kap1: complex, h: float, n2: complex, cos_offset):
@@ -193,19 +193,13 @@ def _rules_on(edges, counts: tuple[int, ...], offset_m: float):
     rules' nodes), cos(lambda offset) or None); one pass of :func:`_earth_sums` sums every rule, and
     :func:`_rule_of` takes one rule out of it (the same numbers :func:`_rule_on` gives)."""
     e = np.array(edges, dtype=float)
-    lo = e[:-1, None]
-    half = 0.5 * (e[1:, None] - lo)
-    nodes, weights = [], []
-    for n in counts:
-        x, w = gauss_legendre(n)
-        nodes.append((half * (x + 1.0) + lo).ravel())
-        weights.append((half * w).ravel())
-    t = np.concatenate(nodes)
-    split = np.zeros((t.size, len(counts)))
-    start = 0
-    for i, w in enumerate(weights):
-        split[start : start + w.size, i] = w
-        start += w.size
+    lo = e[:-1]
+    half = 0.5 * (e[1:] - lo)
+    piece, shifted, unit = stacked_rules(counts, lo.size)  # the standard nodes, made once
+    half = half[piece]
+    t = half * shifted
+    t += lo[piece]
+    split = unit * half[:, None]
     return t * t, split, (np.cos(t * offset_m) if offset_m else None)
 
 

@@ -58,3 +58,23 @@ def _even_samples(length_m: float, steps: int) -> np.ndarray:
     x = np.linspace(0.0, length_m, steps + 1)
     x.flags.writeable = False
     return x
+
+
+@lru_cache(maxsize=32)
+def stacked_rules(counts: tuple[int, ...], pieces: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The Gauss-Legendre rules of ``counts`` points a piece on ``pieces`` pieces, laid out rule after rule and
+    piece after piece within a rule, on [-1, 1] shifted to [0, 2]: (each node's piece, x + 1, weights of shape
+    (nodes, len(counts)) whose column i holds rule i's weights and zeros at the other rules' nodes).  A node on the
+    piece [lo, lo + 2 half] is then half (x + 1) + lo and its weight half w (read-only arrays, made once)."""
+    piece, shifted, split = [], [], []
+    for i, n in enumerate(counts):
+        x, w = gauss_legendre(n)
+        piece.append(np.repeat(np.arange(pieces), n))
+        shifted.append(np.tile(x + 1.0, pieces))
+        column = np.zeros((pieces * n, len(counts)))
+        column[:, i] = np.tile(w, pieces)
+        split.append(column)
+    out = np.concatenate(piece), np.concatenate(shifted), np.concatenate(split)
+    for a in out:
+        a.flags.writeable = False
+    return out
