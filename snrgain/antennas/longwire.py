@@ -743,7 +743,12 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         how = "rdf" if how == "snr" else how  # "snr" is chosen under the sky (SkyTermination); alone, best RDF
         key = (freq_hz, how)
         if key not in self._auto_term:
-            figure = termination_figure(self.termination_pattern(freq_hz), self.bearing_rad, AUTO_ELEVATION_RAD, how)
+            if how == "rdf":
+                figure = self.rdf_figure(freq_hz, self.bearing_rad, AUTO_ELEVATION_RAD)
+            else:
+                figure = termination_figure(
+                    self.termination_pattern(freq_hz), self.bearing_rad, AUTO_ELEVATION_RAD, how
+                )
             self._auto_term[key] = best_resistor(figure)
         return self._auto_term[key]
 
@@ -766,6 +771,47 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
 
         pattern.vectorised = True
         return pattern
+
+    def rdf_figure(self, freq_hz: float, bearing_rad: float, elevation_rad: float):
+        """:func:`termination_figure` of :meth:`termination_pattern` with metric "rdf", the same to rounding, each
+        resistor in a few scalar operations: the feed currents are affine in the far load Z (I = A + Z B,
+        :class:`WaveForms`), so a direction's power is |A|^2 + 2 Re(Z conj(A) B) + |Z|^2 |B|^2 and the sphere's
+        mean is the same quadratic in Z with the three moments averaged once (the line's denominator |D0 + Z D1|^2
+        is common to the forward direction and the mean, and cancels)."""
+        from noisemodels.sphere import upper_hemisphere
+
+        grid = upper_hemisphere(8)
+
+        def moments(az, el, weights):
+            f = self._response_forms(freq_hz, az, el)
+            # q = A_q + Z B_q with the line's integrals; the leads' EMF adds to the vertical part
+            a_q, b_q = (0.5 * f.z0) * (f.j_plus + f.j_minus), 0.5 * (f.j_plus - f.j_minus)
+            a_v, b_v, a_h, b_h = f.drive_v * a_q, f.drive_v * b_q, f.drive_h * a_q, f.drive_h * b_q
+            if not (np.isscalar(f.v_end) and f.v_end == 0):
+                a_v = a_v + f.v_end * ((f.z0 * f.ch) - (f.z0 * f.eg) * f.phase_l)
+                b_v = b_v + f.v_end * f.sh
+            w = np.where(above_horizon(np.asarray(el, dtype=float)), weights, 0.0)
+            return (
+                float(np.dot(_power(a_v) + _power(a_h), w)),
+                complex(np.dot(np.conj(a_v) * b_v + np.conj(a_h) * b_h, w)),
+                float(np.dot(_power(b_v) + _power(b_h), w)),
+            )
+
+        fwd = moments(np.array([bearing_rad]), np.array([elevation_rad]), np.ones(1))
+        mean = moments(grid.azimuth_rad, grid.elevation_rad, grid.solid_angle_sr / (4 * np.pi))
+        far_rod = self.far_rod_ohm
+
+        def figure(r):
+            z = self.up_lead(np.asarray(r, dtype=float) + far_rod, freq_hz)
+            zz = _power(np.asarray(z, dtype=complex))
+
+            def p(m):
+                return m[0] + 2.0 * np.real(z * m[1]) + zz * m[2]
+
+            return p(fwd) / p(mean)
+
+        figure.vectorised = True
+        return figure
 
     def matched_termination_ohm(self, freq_hz: float) -> float | None:
         """|Z0| less the far ground rod [ohm]: the resistor that matches the line (None if open)."""
