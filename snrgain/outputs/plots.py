@@ -437,12 +437,12 @@ def noise_sky(
         else [*maps, ("total of the diffuse components", total)]
     )
     fig, axes = _axes(ax, **_sky_kind(len(panels)))
-    sources = []  # the placed sources: (azimuth, elevation, name, whether a source) at their centroid
+    sources = []  # the placed sources: (azimuth, elevation, name) of their centroid
     for c in compact:
         az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
         el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
-        sources.append((float(az), float(el), c.name, True))
-    inks = []
+        sources.append((float(az), float(el), c.name))
+    inks = []  # each panel's colour for the names: white on the colour map, black on the plain grey
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
     vmax = 10 * np.log10(max(p.max() for p in positive)) if positive else 1.0
     vmin = vmax - 40
@@ -479,7 +479,7 @@ def noise_sky(
                 )
             )
             ax.plot([t["bearing_deg"]], [hi], marker=tl.marker, mfc="white", mec="black", ms=10, ls="none")
-        for az, el, _, _ in sources:
+        for az, el, _ in sources:
             ax.plot([az], [el], ls="none", **SOURCE_MARKER)
         ax.set_xlim(az_edges[0], az_edges[-1])
         ax.set_ylim(0, 90)
@@ -505,7 +505,7 @@ def noise_sky(
     # The names last, where the panels' places are known: beside their marks, clear of each other
     marks = [
         (t["bearing_deg"], t["elevation_max_deg"], t["name"], False, t["elevation_min_deg"]) for t in results.targets
-    ] + [(az, el, name, True, None) for az, el, name, _ in sources]
+    ] + [(az, el, name, True, None) for az, el, name in sources]
     _name_marks(fig, axes, marks, inks)
     return fig
 
@@ -519,8 +519,8 @@ def _name_marks(fig, axes, marks, inks) -> None:
 
     ``marks``: ``(azimuth, elevation, name, is_source, lowest elevation or None)``: a target's hatched box reaches
     down to its lowest elevation; a source's name goes first to the left of its cross, a target's to the right
-    of its marker.  The names are measured once (the renderer keeps no figure drawing for it) and placed on each
-    panel from its size alone: no extra draw."""
+    of its marker.  The names are measured once (the canvas' renderer, which draws nothing for it) and placed on
+    each panel from the panel's place and limits alone: no extra draw."""
     from matplotlib.font_manager import FontProperties
 
     if not marks:
@@ -551,7 +551,7 @@ def _name_marks(fig, axes, marks, inks) -> None:
                 if low is not None:  # the target's hatched box: 8 deg wide, from its lowest elevation up
                     box = (
                         min(box[0], px - 4 * sx),
-                        min(box[1], py - (py / sy - low) * sy),
+                        min(box[1], (low - y0) * sy),
                         max(box[2], px + 4 * sx),
                         box[3],
                     )
