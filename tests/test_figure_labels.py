@@ -114,7 +114,9 @@ def test_ranking_legends_stand_clear_of_the_bars_and_their_values(results):
         frame = ax.get_window_extent(renderer)
         assert frame.x0 <= box.x0 and box.x1 <= frame.x1 and frame.y0 <= box.y0 and box.y1 <= frame.y1
         for t in ax.texts:
-            assert _overlap(box, t.get_window_extent(renderer)) == 0.0, t.get_text()
+            value = t.get_window_extent(renderer)
+            assert _overlap(box, value) == 0.0, t.get_text()
+            assert frame.x0 <= value.x0 and value.x1 <= frame.x1, t.get_text()  # the values stay in their panel
         for p in ax.patches:
             if p.get_width() and p.get_height():
                 assert _overlap(box, p.get_window_extent(renderer)) == 0.0

@@ -510,6 +510,17 @@ def noise_sky(
     return fig
 
 
+def _measurer(fig):
+    """A renderer to measure texts with, drawing nothing: the figure's canvas' own where it has one (Agg's), else a
+    one-pixel Agg renderer at the figure's resolution (a figure made without a canvas, given axes to draw on)."""
+    get = getattr(fig.canvas, "get_renderer", None)
+    if get is not None:
+        return get()
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    return RendererAgg(1, 1, fig.dpi)
+
+
 SKY_NAME_SIZE = 8.0
 """Font size [pt] of the targets' and sources' names on the sky figure."""
 
@@ -525,7 +536,7 @@ def _name_marks(fig, axes, marks, inks) -> None:
 
     if not marks:
         return
-    renderer = fig.canvas.get_renderer()
+    renderer = _measurer(fig)
     prop = FontProperties(size=SKY_NAME_SIZE)
     to_pt = 72.0 / fig.dpi
     sizes = []
@@ -845,7 +856,7 @@ def ranking_chart(results, *, ax=None):
 def _headroom(fig, ax, legends) -> None:
     """Raise ``ax``'s upper y limit so that a band at its top, above the data's own margin, holds the tallest of
     ``legends`` (placed at the top, inside the axes) and its border pad; measured, not drawn."""
-    renderer = fig.canvas.get_renderer()
+    renderer = _measurer(fig)
     need = max(leg.get_window_extent(renderer).height for leg in legends)
     pad = max(leg.borderaxespad * leg.prop.get_size_in_points() for leg in legends) * fig.dpi / 72.0
     need += pad + 2.0 * fig.dpi / 72.0  # the pad above it, a little below
