@@ -442,13 +442,12 @@ def noise_sky(
         az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
         el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
         sources.append((float(az), float(el), c.name))
-    inks = []  # each panel's colour for the names: white on the colour map, black on the plain grey
+    inks = []  # each panel's colours for the names: white on the colour map, black on grey (no noise from there)
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
     vmax = 10 * np.log10(max(p.max() for p in positive)) if positive else 1.0
     vmin = vmax - 40
     mesh = None
     for ax, (name, m) in zip(axes, panels):
-        ink = "white" if np.any(m > 0) else "black"  # the names: white on the colour map, black on the plain grey
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
@@ -483,7 +482,6 @@ def noise_sky(
             ax.plot([az], [el], ls="none", **SOURCE_MARKER)
         ax.set_xlim(az_edges[0], az_edges[-1])
         ax.set_ylim(0, 90)
-        inks.append(ink)
     axes[-1].set_xlabel("azimuth (compass bearing, deg)")
     axes[-1].set_xticks(np.arange(0, 361, 45))
     month = results.months[month_index]
@@ -506,6 +504,10 @@ def noise_sky(
     marks = [
         (t["bearing_deg"], t["elevation_max_deg"], t["name"], False, t["elevation_min_deg"]) for t in results.targets
     ] + [(az, el, name, True, None) for az, el, name in sources]
+    for _, m in panels:  # by the cell under the mark: white on the colour map, black on the grey
+        rows = np.clip(np.searchsorted(el_edges, [mk[1] for mk in marks]) - 1, 0, m.shape[0] - 1)
+        cols = np.clip(np.searchsorted(az_edges, [mk[0] % 360.0 for mk in marks]) - 1, 0, m.shape[1] - 1)
+        inks.append(["white" if m[i, j] > 0 else "black" for i, j in zip(rows, cols)])
     _name_marks(fig, axes, marks, inks)
     return fig
 
@@ -530,8 +532,8 @@ def _name_marks(fig, axes, marks, inks) -> None:
 
     ``marks``: ``(azimuth, elevation, name, is_source, lowest elevation or None)``: a target's hatched box reaches
     down to its lowest elevation; a source's name goes first to the left of its cross, a target's to the right
-    of its marker.  The names are measured once (the canvas' renderer, which draws nothing for it) and placed on
-    each panel from the panel's place and limits alone: no extra draw."""
+    of its marker.  ``inks``: per panel, each name's colour.  The names are measured once (the canvas' renderer,
+    which draws nothing for it) and placed on each panel from the panel's place and limits alone: no extra draw."""
     from matplotlib.font_manager import FontProperties
 
     if not marks:
@@ -545,7 +547,7 @@ def _name_marks(fig, axes, marks, inks) -> None:
         sizes.append((w * to_pt, h * to_pt))
     fw, fh = (v * 72.0 for v in fig.get_size_inches())
     placed_on: dict = {}
-    for ax, ink in zip(axes, inks):
+    for ax, colours in zip(axes, inks):
         pos = ax.get_position()
         x0, x1 = ax.get_xlim()
         y0, y1 = ax.get_ylim()
@@ -574,7 +576,7 @@ def _name_marks(fig, axes, marks, inks) -> None:
                 obstacles,
                 (0.0, 0.0, frame[2] - frame[0], frame[3] - frame[1]),
             )
-        for (az, el, name, _, _), (dx, dy) in zip(marks, placed_on[key]):
+        for (az, el, name, _, _), (dx, dy), ink in zip(marks, placed_on[key], colours):
             ax.annotate(
                 name,
                 (az, el),
