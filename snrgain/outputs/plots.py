@@ -437,12 +437,17 @@ def noise_sky(
         else [*maps, ("total of the diffuse components", total)]
     )
     fig, axes = _axes(ax, **_sky_kind(len(panels)))
+    sources = []  # the placed sources: (azimuth, elevation, name) of their centroid
+    for c in compact:
+        az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
+        el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
+        sources.append((float(az), float(el), c.name))
+    inks = []  # each panel's colours for the names: white on the colour map, black on grey (no noise from there)
     positive = [m[m > 0] for _, m in panels if np.any(m > 0)]
     vmax = 10 * np.log10(max(p.max() for p in positive)) if positive else 1.0
     vmin = vmax - 40
     mesh = None
     for ax, (name, m) in zip(axes, panels):
-        ink = "white" if np.any(m > 0) else "black"  # the names: white on the colour map, black on the plain grey
         with np.errstate(divide="ignore"):
             db = 10 * np.log10(m)
         if np.any(m > 0):
@@ -473,13 +478,9 @@ def noise_sky(
                 )
             )
             ax.plot([t["bearing_deg"]], [hi], marker=tl.marker, mfc="white", mec="black", ms=10, ls="none")
-            ax.text(t["bearing_deg"] + 5, hi + 2, t["name"], color=ink, fontsize=8)
-        for c in compact:
-            az = np.degrees(np.average(c.directions.azimuth_rad, weights=c.weight_k_sr))
-            el = np.degrees(np.average(c.directions.elevation_rad, weights=c.weight_k_sr))
+        for az, el, _ in sources:
             ax.plot([az], [el], ls="none", **SOURCE_MARKER)
-            # to the left of its cross: the targets' names stand to the right of theirs
-            ax.text(az - 6, el, c.name, color=ink, fontsize=8, ha="right", va="center")
+        ax.set_xlim(az_edges[0], az_edges[-1])
         ax.set_ylim(0, 90)
     axes[-1].set_xlabel("azimuth (compass bearing, deg)")
     axes[-1].set_xticks(np.arange(0, 361, 45))
@@ -499,7 +500,154 @@ def noise_sky(
         axes[0].set_title(title, fontsize=9, y=1.0)
         if mesh is not None:
             fig.colorbar(mesh, ax=axes, label="dB above 1 K")
+    # The names last, where the panels' places are known: beside their marks, clear of each other
+    marks = [
+        (t["bearing_deg"], t["elevation_max_deg"], t["name"], False, t["elevation_min_deg"]) for t in results.targets
+    ] + [(az, el, name, True, None) for az, el, name in sources]
+    for _, m in panels:  # by the cell under the mark: white on the colour map, black on the grey
+        rows = np.clip(np.searchsorted(el_edges, [mk[1] for mk in marks]) - 1, 0, m.shape[0] - 1)
+        cols = np.clip(np.searchsorted(az_edges, [mk[0] % 360.0 for mk in marks]) - 1, 0, m.shape[1] - 1)
+        inks.append(["white" if m[i, j] > 0 else "black" for i, j in zip(rows, cols)])
+    _name_marks(fig, axes, marks, inks)
     return fig
+
+
+def _measurer(fig):
+    """A renderer to measure texts with, drawing nothing: the figure's canvas' own where it has one (Agg's), else a
+    one-pixel Agg renderer at the figure's resolution (a figure made without a canvas, given axes to draw on)."""
+    get = getattr(fig.canvas, "get_renderer", None)
+    if get is not None:
+        return get()
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    return RendererAgg(1, 1, fig.dpi)
+
+
+SKY_NAME_SIZE = 8.0
+"""Font size [pt] of the targets' and sources' names on the sky figure."""
+
+
+def _name_marks(fig, axes, marks, inks) -> None:
+    """Write each mark's name beside it on every panel, clear of the other names and marks (:func:`spread_labels`).
+
+    ``marks``: ``(azimuth, elevation, name, is_source, lowest elevation or None)``: a target's hatched box reaches
+    down to its lowest elevation; a source's name goes first to the left of its cross, a target's to the right
+    of its marker.  ``inks``: per panel, each name's colour.  The names are measured once (the canvas' renderer,
+    which draws nothing for it) and placed on each panel from the panel's place and limits alone: no extra draw."""
+    from matplotlib.font_manager import FontProperties
+
+    if not marks:
+        return
+    renderer = _measurer(fig)
+    prop = FontProperties(size=SKY_NAME_SIZE)
+    to_pt = 72.0 / fig.dpi
+    sizes = []
+    for _, _, name, _, _ in marks:
+        w, h, _ = renderer.get_text_width_height_descent(name, prop, False)
+        sizes.append((w * to_pt, h * to_pt))
+    fw, fh = (v * 72.0 for v in fig.get_size_inches())
+    placed_on: dict = {}
+    for ax, colours in zip(axes, inks):
+        pos = ax.get_position()
+        x0, x1 = ax.get_xlim()
+        y0, y1 = ax.get_ylim()
+        frame = (pos.x0 * fw, pos.y0 * fh, pos.x1 * fw, pos.y1 * fh)  # the panel [pt from the figure's corner]
+        sx = (frame[2] - frame[0]) / (x1 - x0)
+        sy = (frame[3] - frame[1]) / (y1 - y0)
+        key = (round(frame[2] - frame[0], 3), round(frame[3] - frame[1], 3), x0, x1, y0, y1)
+        if key not in placed_on:  # panels of one size and scale: the same places
+            points = [((az - x0) * sx, (el - y0) * sy) for az, el, _, _, _ in marks]
+            obstacles = []
+            for (px, py), (_, _, _, is_source, low) in zip(points, marks):
+                r = (SOURCE_MARKER["ms"] if is_source else 10.0) / 2 + 1.0  # with its edge
+                box = (px - r, py - r, px + r, py + r)
+                if low is not None:  # the target's hatched box: 8 deg wide, from its lowest elevation up
+                    box = (
+                        min(box[0], px - 4 * sx),
+                        min(box[1], (low - y0) * sy),
+                        max(box[2], px + 4 * sx),
+                        box[3],
+                    )
+                obstacles.append(box)
+            placed_on[key] = spread_labels(
+                points,
+                sizes,
+                [m[3] for m in marks],
+                obstacles,
+                (0.0, 0.0, frame[2] - frame[0], frame[3] - frame[1]),
+            )
+        for (az, el, name, _, _), (dx, dy), ink in zip(marks, placed_on[key], colours):
+            ax.annotate(
+                name,
+                (az, el),
+                xytext=(dx, dy),
+                textcoords="offset points",
+                color=ink,
+                fontsize=SKY_NAME_SIZE,
+                ha="left",
+                va="bottom",
+                annotation_clip=False,
+            )
+
+
+LABEL_GAP = 2.0
+"""Clearance [pt] kept between a label and its mark, and between two labels."""
+
+
+def spread_labels(points, sizes, left_first, obstacles, frame) -> list[tuple[float, float]]:
+    """Greedy places for labels beside their marks, clear of each other: each label in turn takes the first of its
+    candidate places (beside its mark to the right or left, level, a little above or below, then above or below the
+    mark, then staggered a line further up or down) whose box overlaps no label placed before, no mark and stays
+    in ``frame``; where none does, the one overlapping least.  A few boxes compared per label: no drawing.
+
+    ``points``: the marks' places [pt]; ``sizes``: each label's (width, height) [pt]; ``left_first``: whether a
+    label goes first to the left of its mark (else to the right); ``obstacles``: each mark's box (x0, y0, x1, y1)
+    [pt], which its own label stays clear of too; ``frame``: the box the labels should stay in.  Returns each
+    label's lower-left corner as an offset from its mark [pt]."""
+    g = LABEL_GAP
+
+    def overlap(a, b) -> float:
+        w = min(a[2], b[2]) - max(a[0], b[0])
+        h = min(a[3], b[3]) - max(a[1], b[1])
+        return w * h if w > 0 and h > 0 else 0.0
+
+    def outside(a) -> float:  # the part of the box outside the frame
+        inner = overlap(a, frame)
+        return (a[2] - a[0]) * (a[3] - a[1]) - inner
+
+    placed: list[tuple] = []
+    offsets = []
+    for k, ((px, py), (w, h), left) in enumerate(zip(points, sizes, left_first)):
+        ob = obstacles[k]
+        right_x = ob[2] - px + 1.5 * g  # clear of its own mark's box
+        left_x = ob[0] - px - 1.5 * g - w
+        above_y = ob[3] - py + 1.5 * g
+        below_y = ob[1] - py - 1.5 * g - h
+        sides = (left_x, right_x) if left else (right_x, left_x)
+        candidates = []
+        for x in sides:
+            # a source's level with its cross, a target's a little raised (clear of its hatched box)
+            candidates += [(x, -h / 2), (x, 0.0), (x, -h)] if left else [(x, 0.0), (x, -h / 2), (x, -h)]
+        candidates += [(-w / 2, above_y), (-w / 2, below_y)]
+        for step in range(1, 4):  # staggered a line at a time
+            for x in sides:
+                candidates += [(x, -h / 2 + step * (h + g)), (x, -h / 2 - step * (h + g))]
+            candidates += [(-w / 2, above_y + step * (h + g)), (-w / 2, below_y - step * (h + g))]
+        best, best_cost = None, None
+        for dx, dy in candidates:
+            box = (px + dx, py + dy, px + dx + w, py + dy + h)
+            padded = (box[0] - g, box[1] - g, box[2] + g, box[3] + g)
+            cost = sum(overlap(padded, b) for b in placed) + sum(overlap(padded, b) for b in obstacles)
+            cost += outside(box)
+            if cost == 0.0:
+                best = (dx, dy, box)
+                break
+            if best_cost is None or cost < best_cost:
+                best, best_cost = (dx, dy, box), cost
+        dx, dy, box = best
+        placed.append(box)
+        offsets.append((dx, dy))
+    return offsets
 
 
 def _window(x, values):
@@ -672,7 +820,6 @@ def ranking_chart(results, *, ax=None):
     axes[0].set_yticks(y, names)
     axes[0].set_xlabel("SNR gain over the reference (dB): median, bar 10-90 %;\nbest: the best toward that target")
     axes[0].set_title("SNR gain per target (colour: antenna; hatching: target)", fontsize=10, y=1.0)
-    axes[0].legend(fontsize=8, loc="best")
     axes[1].axvline(0, color="0.3", lw=1)
     axes[1].set_xlabel("RDF (dB)")
     axes[1].set_title("RDF per target", fontsize=10, y=1.0)
@@ -694,7 +841,6 @@ def ranking_chart(results, *, ax=None):
         axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
     axes[2].set_xlabel("margin over the chain's floor (dB)")
     axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10, y=1.0)
-    axes[2].legend(fontsize=8, loc="lower right")
     for ax in axes:
         ax.grid(axis="x", alpha=0.3)
     at = lab.attrs
@@ -702,7 +848,25 @@ def ranking_chart(results, *, ax=None):
     if own:
         fig.suptitle(title, fontsize=11)
         _place(fig, left=2.4, right=0.5, top=0.85, bottom=0.8, wgap=0.35)  # the left margin: the antennas' names
+    # The legends in a band of their own above the bars (the axes shared in y: every panel's), where no bar or
+    # value stands: the band is the legends' measured height, now that the panels' size is known
+    legends = [axes[0].legend(fontsize=8, loc="upper left"), axes[2].legend(fontsize=8, loc="upper right")]
+    _headroom(fig, axes[0], legends)
     return fig
+
+
+def _headroom(fig, ax, legends) -> None:
+    """Raise ``ax``'s upper y limit so that a band at its top, above the data's own margin, holds the tallest of
+    ``legends`` (placed at the top, inside the axes) and its border pad; measured, not drawn."""
+    renderer = _measurer(fig)
+    need = max(leg.get_window_extent(renderer).height for leg in legends)
+    pad = max(leg.borderaxespad * leg.prop.get_size_in_points() for leg in legends) * fig.dpi / 72.0
+    need += pad + 2.0 * fig.dpi / 72.0  # the pad above it, a little below
+    height = ax.get_window_extent(renderer).height
+    y0, y1 = ax.get_ylim()
+    if height <= 2 * need:  # a tiny panel: no room to make; leave it
+        return
+    ax.set_ylim(y0, y1 + need * (y1 - y0) / (height - need))
 
 
 def _barh(ax, y, widths, *, height: float, colors, edgecolors, lw: float, hatch=None, alpha=None) -> None:

@@ -1,0 +1,122 @@
+"""Names and legends on the figures stay clear of each other: measured as drawn (the renderer's window extents)."""
+
+import dataclasses
+import itertools
+
+import numpy as np
+import pytest
+
+import snrgain
+from snrgain.outputs import plots
+from tests.conftest import SCENARIOS
+
+
+@pytest.fixture(scope="module")
+def results():
+    return snrgain.evaluate(SCENARIOS / "alder-hollow.toml")
+
+
+def _crowded(results):
+    """The results with every target moved next to the placed source, at its elevation: names that would overlap
+    where each were written at its usual place."""
+    comp = next(c for c in results.noise.maps[plots.sky_moment(results)] if c.directions.nside is None)
+    az = float(np.degrees(np.average(comp.directions.azimuth_rad, weights=comp.weight_k_sr)))
+    el = float(np.degrees(np.average(comp.directions.elevation_rad, weights=comp.weight_k_sr)))
+    targets = [
+        {**t, "bearing_deg": az - 12.0 + 9.0 * k, "elevation_min_deg": max(el - 4.0, 0.5), "elevation_max_deg": el + 2}
+        for k, t in enumerate(results.targets)
+    ]
+    crowded = dataclasses.replace(results, targets=targets)
+    return crowded
+
+
+def _boxes(fig, texts):
+    renderer = fig.canvas.get_renderer()
+    return [t.get_window_extent(renderer) for t in texts]
+
+
+def _overlap(a, b) -> float:
+    w = min(a.x1, b.x1) - max(a.x0, b.x0)
+    h = min(a.y1, b.y1) - max(a.y0, b.y0)
+    return w * h if w > 0 and h > 0 else 0.0
+
+
+@pytest.mark.parametrize("crowd", [False, True])
+def test_sky_names_do_not_overlap_each_other_or_the_marks(results, crowd):
+    r = _crowded(results) if crowd else results
+    names = {t["name"] for t in r.targets} | {"neighbour's power supply"}
+    fig = plots.noise_sky(r)
+    renderer = fig.canvas.get_renderer()
+    for ax in fig.axes[:-1]:  # the panels; the last axes is the colour bar
+        texts = [t for t in ax.texts if t.get_text() in names]
+        assert {t.get_text() for t in texts} == names
+        boxes = _boxes(fig, texts)
+        for a, b in itertools.combinations(boxes, 2):
+            assert _overlap(a, b) == 0.0
+        marks = [ln for ln in ax.get_lines() if ln.get_marker() not in (None, "None", "")]
+        frame = ax.get_window_extent(renderer)
+        for text, box in zip(texts, boxes):
+            for mark in marks:
+                assert _overlap(box, mark.get_window_extent(renderer)) == 0.0, text.get_text()
+            assert frame.x0 <= box.x0 and box.x1 <= frame.x1 and frame.y0 <= box.y0 and box.y1 <= frame.y1
+            # next to its own mark: within two of its lines
+            mx, my = ax.transData.transform(text.xy)
+            dx = max(box.x0 - mx, mx - box.x1, 0.0)
+            dy = max(box.y0 - my, my - box.y1, 0.0)
+            assert np.hypot(dx, dy) <= 2 * box.height + 10 * fig.dpi / 72
+
+
+def test_crowded_names_would_overlap_at_their_usual_places(results):
+    # the crafted case is one that needs the spreading: the names written at their first places overlap
+    r = _crowded(results)
+    fig = plots.noise_sky(r, total_only=True)
+    ax = fig.axes[0]
+    texts = [t for t in ax.texts if t.get_text() in {x["name"] for x in r.targets} | {"neighbour's power supply"}]
+    renderer = fig.canvas.get_renderer()
+    firsts = []
+    for t in texts:
+        t.set_position((6.0, 0.0))  # right of the mark, level: where each would go alone
+        firsts.append(t.get_window_extent(renderer))
+    assert any(_overlap(a, b) > 0 for a, b in itertools.combinations(firsts, 2))
+
+
+def test_spread_labels_keeps_boxes_apart_and_in_the_frame():
+    rng = np.random.default_rng(3)
+    points = [(float(x), float(y)) for x, y in rng.uniform([20, 10], [120, 40], size=(6, 2))]
+    sizes = [(float(w), 9.0) for w in rng.uniform(20, 70, size=6)]
+    obstacles = [(x - 6, y - 6, x + 6, y + 6) for x, y in points]
+    frame = (0.0, 0.0, 400.0, 200.0)
+    offsets = plots.spread_labels(points, sizes, [k % 2 == 0 for k in range(6)], obstacles, frame)
+    boxes = [(x + dx, y + dy, x + dx + w, y + dy + h) for (x, y), (dx, dy), (w, h) in zip(points, offsets, sizes)]
+    for a, b in itertools.combinations(boxes, 2):
+        assert min(a[2], b[2]) <= max(a[0], b[0]) or min(a[3], b[3]) <= max(a[1], b[1])
+    for box in boxes:
+        assert frame[0] <= box[0] and box[2] <= frame[2] and frame[1] <= box[1] and box[3] <= frame[3]
+        for ob in obstacles:
+            assert min(box[2], ob[2]) <= max(box[0], ob[0]) or min(box[3], ob[3]) <= max(box[1], ob[1])
+
+
+def test_a_lone_label_takes_its_first_place():
+    # nothing in the way: a source's name to the left of its cross, level; a target's to the right, raised
+    ob = [(94.0, 44.0, 106.0, 56.0)]
+    ((dx, dy),) = plots.spread_labels([(100.0, 50.0)], [(30.0, 8.0)], [True], ob, (0, 0, 300, 300))
+    assert dx + 30.0 < -6.0 and dy == -4.0
+    ((dx, dy),) = plots.spread_labels([(100.0, 50.0)], [(30.0, 8.0)], [False], ob, (0, 0, 300, 300))
+    assert dx > 6.0 and dy == 0.0
+
+
+def test_ranking_legends_stand_clear_of_the_bars_and_their_values(results):
+    fig = plots.ranking_chart(results)
+    renderer = fig.canvas.get_renderer()
+    for ax in (fig.axes[0], fig.axes[2]):
+        legend = ax.get_legend()
+        box = legend.get_window_extent(renderer)
+        frame = ax.get_window_extent(renderer)
+        assert frame.x0 <= box.x0 and box.x1 <= frame.x1 and frame.y0 <= box.y0 and box.y1 <= frame.y1
+        for t in ax.texts:
+            value = t.get_window_extent(renderer)
+            assert _overlap(box, value) == 0.0, t.get_text()
+            assert frame.x0 <= value.x0 and value.x1 <= frame.x1, t.get_text()  # the values stay in their panel
+        for p in ax.patches:
+            if p.get_width() and p.get_height():
+                assert _overlap(box, p.get_window_extent(renderer)) == 0.0
