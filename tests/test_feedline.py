@@ -868,3 +868,20 @@ def test_a_scenarios_check_reads_each_antennas_end_without_working_it_out():
     for fn in (end_kind, lambda a: antenna_end(a, F, GROUND)):
         with pytest.raises(ValueError, match="isotropic has neither"):
             fn(iso)
+
+
+def test_the_lossy_lines_sky_gain_over_one_division_is_the_sky_responses_power_end_on_too():
+    # sky_gain works a lossy line's two integrals over one division ((jkc)^2 - g^2): the same power as the
+    # currents' own arithmetic (sky_response), along the run's bearing both ways (where jkc comes nearest g) and
+    # through every kind of antenna end
+    fl = _shield()
+    b = fl.bearing_rad
+    az = np.concatenate([np.full(30, b), np.full(30, b + np.pi), np.radians(np.arange(0.0, 360.0, 12.0))])
+    el = np.concatenate([np.radians(np.linspace(0.0, 60.0, 30))] * 2 + [np.radians(np.linspace(-3.0, 80.0, 30))])
+    rod, loop, load = antenna_loads(_beverage(), F)
+    for run, r in ((fl, rod), (_shield(choke=800.0), rod), (_shield(isolation="transformer"), 5.0)):
+        c = phys.coupling(run, F, GROUND, rod_ohm=r, loop_ohm=loop, load_ohm=load)
+        assert c.line.gamma.real > 0
+        ev, eh = phys.sky_response(run, c, F, az, el, GROUND)
+        want = np.abs(ev) ** 2 + np.abs(eh) ** 2
+        np.testing.assert_allclose(phys.sky_gain(run, c, F, az, el, GROUND), want, rtol=1e-13, atol=0)
