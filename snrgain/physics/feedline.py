@@ -549,8 +549,8 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
 
 def emf_currents(fls, cs, emfs) -> np.ndarray:
     """:func:`emf_current` of several runs at once (K,): ``fls`` their FeedLines, ``cs`` their couplings, ``emfs``
-    their :func:`route_emf` (x, EMF, lead EMFs); every run's samples in one pass of the transfer function, each
-    run's sum its own (the same arithmetic but the order of the sums: equal to rounding)."""
+    their :func:`route_emf` (x, EMF, lead EMFs); every run's samples in one pass of the transfer function (its
+    hyperbolic functions from one complex exponential per sample), each run's sum its own (equal to rounding)."""
     k = len(fls)
     if k == 1:
         return np.array([emf_current(fls[0], cs[0], *emfs[0])])
@@ -564,7 +564,10 @@ def emf_currents(fls, cs, emfs) -> np.ndarray:
     d = z0 * (z_a + z_s) * np.cosh(g * length) + (z0**2 + z_a * z_s) * np.sinh(g * length)
     run = np.repeat(np.arange(k), sizes)
     arg = g[run] * (length[run] - np.concatenate([x for x, _, _ in emfs]))
-    transfer = (z0[run] * np.cosh(arg) + z_s[run] * np.sinh(arg)) / d[run]
+    # (z0 cosh(a) + z_s sinh(a)) / d as ((z0 + z_s) e^a + (z0 - z_s) e^-a) / 2d: one exponential per sample
+    grow = np.exp(arg)
+    transfer = (0.5 * (z0 + z_s) / d)[run] * grow
+    transfer += (0.5 * (z0 - z_s) / d)[run] / grow
     weights = np.concatenate([pairs_rule(x) for x, _, _ in emfs])
     current = np.add.reduceat(np.concatenate([e for _, e, _ in emfs]) * transfer * weights, starts)
     leads = np.array([lead for _, _, lead in emfs], dtype=complex).reshape(k, 2)
