@@ -885,3 +885,20 @@ def test_the_lossy_lines_sky_gain_over_one_division_is_the_sky_responses_power_e
         ev, eh = phys.sky_response(run, c, F, az, el, GROUND)
         want = np.abs(ev) ** 2 + np.abs(eh) ** 2
         np.testing.assert_allclose(phys.sky_gain(run, c, F, az, el, GROUND), want, rtol=1e-13, atol=0)
+
+
+def test_the_sky_gain_with_a_plane_wave_kept_from_another_ground_is_the_one_worked_there():
+    # what of the plane wave does not depend on the ground is kept across a spread's grounds (the model's phase
+    # memo): given the wave worked over one ground, the gain over another is the one worked there, to the bit
+    from snrgain.antennas.longwire import plane_wave
+
+    az = np.radians(np.arange(0.0, 360.0, 7.5))
+    el = np.radians(np.linspace(-5.0, 89.0, az.size))
+    rod, loop, load = antenna_loads(_beverage(), F)
+    for fl in (_shield(), phys.FeedLine((0.0, 0.0), (-30.0, -80.0), None, 0.0027, 0.0035, 25.0)):
+        wave = plane_wave(F, az, el, bearing_rad=fl.bearing_rad, ground=GROUND)
+        phase = phys.sky_phase(fl, F, wave)
+        for g in (GROUND, Ground(0.02, 30.0, "wet")):
+            c = phys.coupling(fl, F, g, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+            want = phys.sky_gain(fl, c, F, az, el, g, phase=phase)
+            np.testing.assert_array_equal(phys.sky_gain(fl, c, F, az, el, g, phase=phase, wave=wave), want)

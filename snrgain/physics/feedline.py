@@ -89,12 +89,12 @@ earth without passing the input).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from snrgain.physics import lines
-from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 from snrgain.physics.quadrature import even_samples, gauss_legendre
 from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
 
@@ -380,16 +380,22 @@ def unit_coupling(c: Coupling) -> Coupling:
 
 
 def sky_gain(
-    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, *, phase=None
+    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, *, phase=None, wave=None
 ) -> np.ndarray:
     """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon.
     ``phase``: the run's :func:`sky_phase` on these directions where the caller keeps it (it does not depend on the
-    ground or the line: a ground spread's nodes take one).  A lossy shield line (every line over real soil) is
-    worked by :func:`_sky_gain_lossy`, the same currents in fewer array operations; a lossless one through
-    :func:`_sky_currents`, their powers then taken without the complex responses (equal to rounding)."""
+    ground or the line: a ground spread's nodes take one); ``wave``: the plane wave on these directions with the
+    run's bearing at this frequency over any ground (snrgain.antennas.longwire.plane_wave), kept by the caller for
+    what does not depend on the ground, its reflection coefficients worked here for ``ground``.  A lossy shield
+    line (every line over real soil) is worked by :func:`_sky_gain_lossy`, the same currents in fewer array
+    operations; a lossless one through :func:`_sky_currents`, their powers then taken without the complex responses
+    (equal to rounding)."""
     from snrgain.antennas.longwire import above_horizon, plane_wave
 
-    w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    if wave is None:
+        w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    else:
+        w = replace(wave, **dict(zip(("r_v", "r_h"), reflection_coefficients(ground, wave.el_u, freq_hz))))
     # the port response's |scale (-I divider)|^2 for both polarisations (snrgain.antennas.longwire.port_response)
     lam = C_M_PER_S / freq_hz
     scale2 = 4 * np.pi / lam**2 * c.load_ohm * ETA0_OHM * abs(c.divider) ** 2
