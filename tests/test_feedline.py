@@ -902,3 +902,19 @@ def test_the_sky_gain_with_a_plane_wave_kept_from_another_ground_is_the_one_work
             c = phys.coupling(fl, F, g, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
             want = phys.sky_gain(fl, c, F, az, el, g, phase=phase)
             np.testing.assert_array_equal(phys.sky_gain(fl, c, F, az, el, g, phase=phase, wave=wave), want)
+
+
+def test_the_sky_gain_on_directions_in_elevation_order_is_the_one_on_them_shuffled():
+    # directions that run ring by ring in elevation spread their per-elevation values by a repeat, others by a
+    # gather: the same gains, direction by direction
+    fl = _shield()
+    rod, loop, load = antenna_loads(_beverage(), F)
+    c = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    el, az = (
+        a.ravel() for a in np.meshgrid(np.radians([-2.0, 0.0, 10.0, 35.0, 80.0]), np.radians(np.arange(0, 360, 15)))
+    )
+    order = np.argsort(el, kind="stable")
+    shuffle = np.random.default_rng(7).permutation(el.size)
+    ordered = phys.sky_gain(fl, c, F, az[order].copy(), el[order].copy(), GROUND)
+    shuffled = phys.sky_gain(fl, c, F, az[shuffle].copy(), el[shuffle].copy(), GROUND)
+    np.testing.assert_array_equal(ordered[np.argsort(order)], shuffled[np.argsort(shuffle)])

@@ -434,20 +434,41 @@ def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.n
     den = jkc * jkc
     den -= g * g
     q /= den
-    inv = w.inv
-    i_v = np.take(f_v, inv)
+    spread = _spreader(w.inv)
+    i_v = spread(f_v)
     i_v *= -w.cos_dphi
     i_v *= q
     if not fl.buried:  # the leads' EMF, up at the antenna end and down at the station's
         ends = phase_l * (z0 * eg / denom)
         np.subtract((z0 * ch + z_s * sh) / denom, ends, out=ends)
-        ends *= np.take(vertical_emf(w, 0.0, fl.wire_height_m), inv)
+        ends *= spread(vertical_emf(w, 0.0, fl.wire_height_m))
         i_v += ends
     p = _power(q)
-    p *= np.take(f_h.real**2 + f_h.imag**2, inv)
+    p *= spread(f_h.real**2 + f_h.imag**2)
     p *= w.sin_dphi * w.sin_dphi
     p += _power(i_v)
     return p
+
+
+def _spreader(inv: np.ndarray):
+    """values per distinct elevation -> values[inv] per direction: where ``inv`` runs in order (a sky's directions,
+    ring by ring) a repeat of each value its count of times, which is the same array made with less work; kept for
+    the last few ``inv`` (held, so their ids stay their own)."""
+    held = _SPREADS.get(id(inv))
+    if held is None or held[0] is not inv:
+        counts = None
+        if inv.ndim == 1 and inv.size and bool(np.all(inv[1:] >= inv[:-1])):
+            counts = np.bincount(inv)
+        if len(_SPREADS) >= 8:
+            _SPREADS.clear()
+        held = _SPREADS[id(inv)] = (inv, counts)
+    counts = held[1]
+    if counts is None:
+        return lambda values: np.take(values, inv)
+    return lambda values: np.repeat(values, counts) if len(values) == len(counts) else np.take(values, inv)
+
+
+_SPREADS: dict = {}
 
 
 def _power(z: np.ndarray) -> np.ndarray:
