@@ -868,3 +868,53 @@ def test_a_scenarios_check_reads_each_antennas_end_without_working_it_out():
     for fn in (end_kind, lambda a: antenna_end(a, F, GROUND)):
         with pytest.raises(ValueError, match="isotropic has neither"):
             fn(iso)
+
+
+def test_the_lossy_lines_sky_gain_over_one_division_is_the_sky_responses_power_end_on_too():
+    # sky_gain works a lossy line's two integrals over one division ((jkc)^2 - g^2): the same power as the
+    # currents' own arithmetic (sky_response), along the run's bearing both ways (where jkc comes nearest g) and
+    # through every kind of antenna end
+    fl = _shield()
+    b = fl.bearing_rad
+    az = np.concatenate([np.full(30, b), np.full(30, b + np.pi), np.radians(np.arange(0.0, 360.0, 12.0))])
+    el = np.concatenate([np.radians(np.linspace(0.0, 60.0, 30))] * 2 + [np.radians(np.linspace(-3.0, 80.0, 30))])
+    rod, loop, load = antenna_loads(_beverage(), F)
+    for run, r in ((fl, rod), (_shield(choke=800.0), rod), (_shield(isolation="transformer"), 5.0)):
+        c = phys.coupling(run, F, GROUND, rod_ohm=r, loop_ohm=loop, load_ohm=load)
+        assert c.line.gamma.real > 0
+        ev, eh = phys.sky_response(run, c, F, az, el, GROUND)
+        want = np.abs(ev) ** 2 + np.abs(eh) ** 2
+        np.testing.assert_allclose(phys.sky_gain(run, c, F, az, el, GROUND), want, rtol=1e-13, atol=0)
+
+
+def test_the_sky_gain_with_a_plane_wave_kept_from_another_ground_is_the_one_worked_there():
+    # what of the plane wave does not depend on the ground is kept across a spread's grounds (the model's phase
+    # memo): given the wave worked over one ground, the gain over another is the one worked there, to the bit
+    from snrgain.antennas.longwire import plane_wave
+
+    az = np.radians(np.arange(0.0, 360.0, 7.5))
+    el = np.radians(np.linspace(-5.0, 89.0, az.size))
+    rod, loop, load = antenna_loads(_beverage(), F)
+    for fl in (_shield(), phys.FeedLine((0.0, 0.0), (-30.0, -80.0), None, 0.0027, 0.0035, 25.0)):
+        wave = plane_wave(F, az, el, bearing_rad=fl.bearing_rad, ground=GROUND)
+        phase = phys.sky_phase(fl, F, wave)
+        for g in (GROUND, Ground(0.02, 30.0, "wet")):
+            c = phys.coupling(fl, F, g, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+            want = phys.sky_gain(fl, c, F, az, el, g, phase=phase)
+            np.testing.assert_array_equal(phys.sky_gain(fl, c, F, az, el, g, phase=phase, wave=wave), want)
+
+
+def test_the_sky_gain_on_directions_in_elevation_order_is_the_one_on_them_shuffled():
+    # directions that run ring by ring in elevation spread their per-elevation values by a repeat, others by a
+    # gather: the same gains, direction by direction
+    fl = _shield()
+    rod, loop, load = antenna_loads(_beverage(), F)
+    c = phys.coupling(fl, F, GROUND, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+    el, az = (
+        a.ravel() for a in np.meshgrid(np.radians([-2.0, 0.0, 10.0, 35.0, 80.0]), np.radians(np.arange(0, 360, 15)))
+    )
+    order = np.argsort(el, kind="stable")
+    shuffle = np.random.default_rng(7).permutation(el.size)
+    ordered = phys.sky_gain(fl, c, F, az[order].copy(), el[order].copy(), GROUND)
+    shuffled = phys.sky_gain(fl, c, F, az[shuffle].copy(), el[shuffle].copy(), GROUND)
+    np.testing.assert_array_equal(ordered[np.argsort(order)], shuffled[np.argsort(shuffle)])

@@ -574,8 +574,10 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
     key = ("sky", _route_key(fl), g, *where)
 
     def make():
-        phase = _PHASES.get((fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground))
-        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=phase)
+        jkc, phase_l, wave = _PHASES.get(
+            (fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground)
+        )
+        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=(jkc, phase_l), wave=wave)
 
     return _memo(key, make)
 
@@ -597,14 +599,17 @@ _DIRECTIONS = Memo(64)
 
 
 _PHASES = Memo(64, max_bytes=64 * 2**20)
-"""A run's :func:`snrgain.physics.feedline.sky_phase` on a set of directions, by its ends, the frequency and the
-directions: the same over every ground (a spread's nodes) and cable."""
+"""A run's :func:`snrgain.physics.feedline.sky_phase` on a set of directions and the plane wave it was worked from
+(what of it does not depend on the ground), by its ends, the frequency and the directions: the same over every
+ground (a spread's nodes) and cable."""
 
 
-def _sky_phase(fl, freq_hz, az, el, ground):
+def _sky_phase(fl, freq_hz, az, el, ground) -> tuple:
+    """(j k c, e^{j k c L}, the plane wave) of a run (:data:`_PHASES`)."""
     from snrgain.antennas.longwire import plane_wave
 
-    return phys.sky_phase(fl, freq_hz, plane_wave(freq_hz, az, el, bearing_rad=fl.bearing_rad, ground=ground))
+    wave = plane_wave(freq_hz, az, el, bearing_rad=fl.bearing_rad, ground=ground)
+    return (*phys.sky_phase(fl, freq_hz, wave), wave)
 
 
 def no_pickup(prep: Prepared) -> dict:

@@ -89,12 +89,12 @@ earth without passing the input).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from snrgain.physics import lines
-from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
+from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 from snrgain.physics.quadrature import even_samples, gauss_legendre
 from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
 
@@ -332,13 +332,18 @@ def sky_response(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevati
     return tuple(port_response(freq_hz, -i * c.divider, load_ohm=c.load_ohm, elevation_rad=w.el) for i in currents)
 
 
-def _sky_currents(fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, phase=None):
+def _sky_currents(
+    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, phase=None, *, wave=None
+):
     """(the plane wave, (I_v, I_h)): the shield's currents at the antenna's end for unit plane waves of each
     polarization, the run a line over the ground between its ends' loads, driven along its length and up its
-    lead (none when buried); ``phase`` the run's :func:`sky_phase` where the caller keeps it."""
+    lead (none when buried); ``phase`` the run's :func:`sky_phase` where the caller keeps it, ``wave`` the plane
+    wave where the caller has formed it."""
     from snrgain.antennas.longwire import field_along_wire, line_currents, line_integrals, plane_wave, vertical_emf
 
-    w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    w = wave
+    if w is None:
+        w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
     f_v, f_h = field_along_wire(w, fl.wire_height_m)
     lead = 0.0 if fl.buried else vertical_emf(w, 0.0, fl.wire_height_m)[w.inv]
     integrals = None if phase is None else line_integrals(w, c.line.gamma, fl.length_m, phase=phase)
@@ -375,19 +380,102 @@ def unit_coupling(c: Coupling) -> Coupling:
 
 
 def sky_gain(
-    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, *, phase=None
+    fl: FeedLine, c: Coupling, freq_hz: float, azimuth_rad, elevation_rad, ground, *, phase=None, wave=None
 ) -> np.ndarray:
     """|e_v|^2 + |e_h|^2 of :func:`sky_response`: the feed line's "gain" into the receiver, 0 below the horizon.
     ``phase``: the run's :func:`sky_phase` on these directions where the caller keeps it (it does not depend on the
-    ground or the line: a ground spread's nodes take one).  :func:`sky_response`'s arithmetic up to the currents,
-    their powers then taken without the complex responses (equal to rounding)."""
-    from snrgain.antennas.longwire import above_horizon
+    ground or the line: a ground spread's nodes take one); ``wave``: the plane wave on these directions with the
+    run's bearing at this frequency over any ground (snrgain.antennas.longwire.plane_wave), kept by the caller for
+    what does not depend on the ground, its reflection coefficients worked here for ``ground``.  A lossy shield
+    line (every line over real soil) is worked by :func:`_sky_gain_lossy`, the same currents in fewer array
+    operations; a lossless one through :func:`_sky_currents`, their powers then taken without the complex responses
+    (equal to rounding)."""
+    from snrgain.antennas.longwire import above_horizon, plane_wave
 
-    w, (i_v, i_h) = _sky_currents(fl, c, freq_hz, azimuth_rad, elevation_rad, ground, phase)
+    if wave is None:
+        w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=fl.bearing_rad, ground=ground)
+    else:
+        w = replace(wave, **dict(zip(("r_v", "r_h"), reflection_coefficients(ground, wave.el_u, freq_hz))))
     # the port response's |scale (-I divider)|^2 for both polarisations (snrgain.antennas.longwire.port_response)
     lam = C_M_PER_S / freq_hz
     scale2 = 4 * np.pi / lam**2 * c.load_ohm * ETA0_OHM * abs(c.divider) ** 2
+    if c.line.gamma.real > 0:
+        p = _sky_gain_lossy(fl, c, freq_hz, w, sky_phase(fl, freq_hz, w) if phase is None else phase)
+        p *= scale2
+        p[w.el < 0.0] = 0.0
+        return p
+    w, (i_v, i_h) = _sky_currents(fl, c, freq_hz, azimuth_rad, elevation_rad, ground, phase, wave=w)
     return np.where(above_horizon(w.el), scale2 * (i_v.real**2 + i_v.imag**2 + i_h.real**2 + i_h.imag**2), 0.0)
+
+
+def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.ndarray:
+    """|I_v|^2 + |I_h|^2 of :func:`_sky_currents` on a lossy line (Re gamma > 0), for the plane wave ``w`` and the
+    run's :func:`sky_phase`: the line's two integrals (snrgain.antennas.longwire.line_integrals) over one division,
+    a (d - 1) / (jkc - g) + b (d - e^{-2gL}) / (jkc + g) = (d A1 - A0) / ((jkc)^2 - g^2) with d = e^{(jkc - g) L},
+    A1 = (a + b) jkc + (a - b) g, A0 = (a + b e^{-2gL}) jkc + (a - b e^{-2gL}) g; the horizontal polarisation's
+    power from |q|^2 without its complex current; the same currents as snrgain.antennas.longwire.line_currents'
+    to rounding."""
+    from snrgain.antennas.longwire import field_along_wire, vertical_emf
+
+    jkc, phase_l = phase
+    g, z0, L = c.line.gamma, c.line.z0, fl.length_m
+    z_a, z_s = c.z_end, fl.station_ground_ohm
+    f_v, f_h = field_along_wire(w, fl.wire_height_m)
+    e2, eg = np.exp(-2 * g * L), np.exp(-g * L)
+    ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
+    denom = z0 * (z_a + z_s) * ch + (z0**2 + z_a * z_s) * sh
+    a, b = 0.5 * (z0 + z_s) / denom, 0.5 * (z0 - z_s) / denom
+    q = jkc * (a + b)  # the distributed drive's factor (line_currents' q), per direction
+    q += (a - b) * g
+    q *= phase_l * eg
+    a0 = jkc * (a + b * e2)
+    a0 += (a - b * e2) * g
+    q -= a0
+    den = jkc * jkc
+    den -= g * g
+    q /= den
+    spread = _spreader(w.inv)
+    i_v = spread(f_v)
+    i_v *= -w.cos_dphi
+    i_v *= q
+    if not fl.buried:  # the leads' EMF, up at the antenna end and down at the station's
+        ends = phase_l * (z0 * eg / denom)
+        np.subtract((z0 * ch + z_s * sh) / denom, ends, out=ends)
+        ends *= spread(vertical_emf(w, 0.0, fl.wire_height_m))
+        i_v += ends
+    p = _power(q)
+    p *= spread(f_h.real**2 + f_h.imag**2)
+    p *= w.sin_dphi * w.sin_dphi
+    p += _power(i_v)
+    return p
+
+
+def _spreader(inv: np.ndarray):
+    """values per distinct elevation -> values[inv] per direction: where ``inv`` runs in order (a sky's directions,
+    ring by ring) a repeat of each value its count of times, which is the same array made with less work; kept for
+    the last few ``inv`` (held, so their ids stay their own)."""
+    held = _SPREADS.get(id(inv))
+    if held is None or held[0] is not inv:
+        counts = None
+        if inv.ndim == 1 and inv.size and bool(np.all(inv[1:] >= inv[:-1])):
+            counts = np.bincount(inv)
+        if len(_SPREADS) >= 8:
+            _SPREADS.clear()
+        held = _SPREADS[id(inv)] = (inv, counts)
+    counts = held[1]
+    if counts is None:
+        return lambda values: np.take(values, inv)
+    return lambda values: np.repeat(values, counts) if len(values) == len(counts) else np.take(values, inv)
+
+
+_SPREADS: dict = {}
+
+
+def _power(z: np.ndarray) -> np.ndarray:
+    """|z|^2 of a contiguous complex array, its parts squared as one real array."""
+    v = z.view(np.float64)
+    v = v * v
+    return np.add(v[0::2], v[1::2])
 
 
 def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarray]:
@@ -488,8 +576,8 @@ def emf_current(fl: FeedLine, c: Coupling, x, emf, lead) -> complex:
 
 def emf_currents(fls, cs, emfs) -> np.ndarray:
     """:func:`emf_current` of several runs at once (K,): ``fls`` their FeedLines, ``cs`` their couplings, ``emfs``
-    their :func:`route_emf` (x, EMF, lead EMFs); every run's samples in one pass of the transfer function, each
-    run's sum its own (the same arithmetic but the order of the sums: equal to rounding)."""
+    their :func:`route_emf` (x, EMF, lead EMFs); every run's samples in one pass of the transfer function (its
+    hyperbolic functions from one complex exponential per sample), each run's sum its own (equal to rounding)."""
     k = len(fls)
     if k == 1:
         return np.array([emf_current(fls[0], cs[0], *emfs[0])])
@@ -503,7 +591,10 @@ def emf_currents(fls, cs, emfs) -> np.ndarray:
     d = z0 * (z_a + z_s) * np.cosh(g * length) + (z0**2 + z_a * z_s) * np.sinh(g * length)
     run = np.repeat(np.arange(k), sizes)
     arg = g[run] * (length[run] - np.concatenate([x for x, _, _ in emfs]))
-    transfer = (z0[run] * np.cosh(arg) + z_s[run] * np.sinh(arg)) / d[run]
+    # (z0 cosh(a) + z_s sinh(a)) / d as ((z0 + z_s) e^a + (z0 - z_s) e^-a) / 2d: one exponential per sample
+    grow = np.exp(arg)
+    transfer = (0.5 * (z0 + z_s) / d)[run] * grow
+    transfer += (0.5 * (z0 - z_s) / d)[run] / grow
     weights = np.concatenate([pairs_rule(x) for x, _, _ in emfs])
     current = np.add.reduceat(np.concatenate([e for _, e, _ in emfs]) * transfer * weights, starts)
     leads = np.array([lead for _, _, lead in emfs], dtype=complex).reshape(k, 2)
