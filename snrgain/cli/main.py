@@ -5,23 +5,44 @@ from __future__ import annotations
 import click
 
 from snrgain import __version__
-from snrgain.cli.calibrate import calibrate
-from snrgain.cli.check import check
-from snrgain.cli.layout import layout
-from snrgain.cli.locate import locate
-from snrgain.cli.new import new
-from snrgain.cli.noise import noise
-from snrgain.cli.noisereadings import noise_readings
-from snrgain.cli.rank import rank
-from snrgain.cli.report import figures, report
-from snrgain.cli.sweep import sweep
-from snrgain.cli.verify import verify
-from snrgain.cli.wire import wire
 from snrgain.errors import RECEIVED as _received  # the stop signals received (the first decides the exit code)
 from snrgain.errors import Interrupted
 
+# Each subcommand's module, imported when the command line names it (or when --help lists them all): a `rank`
+# loads none of the others' modules.
+COMMANDS = {
+    "calibrate": ("snrgain.cli.calibrate", "calibrate"),
+    "check": ("snrgain.cli.check", "check"),
+    "figures": ("snrgain.cli.report", "figures"),
+    "layout": ("snrgain.cli.layout", "layout"),
+    "locate": ("snrgain.cli.locate", "locate"),
+    "new": ("snrgain.cli.new", "new"),
+    "noise": ("snrgain.cli.noise", "noise"),
+    "noise-readings": ("snrgain.cli.noisereadings", "noise_readings"),
+    "rank": ("snrgain.cli.rank", "rank"),
+    "report": ("snrgain.cli.report", "report"),
+    "sweep": ("snrgain.cli.sweep", "sweep"),
+    "verify": ("snrgain.cli.verify", "verify"),
+    "wire": ("snrgain.cli.wire", "wire"),
+}
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+
+class _Commands(click.Group):
+    """The subcommands of :data:`COMMANDS`, each module imported on first use."""
+
+    def list_commands(self, ctx):
+        return sorted({*COMMANDS, *self.commands})
+
+    def get_command(self, ctx, cmd_name):
+        if cmd_name not in self.commands and cmd_name in COMMANDS:
+            import importlib
+
+            module, name = COMMANDS[cmd_name]
+            self.add_command(getattr(importlib.import_module(module), name), cmd_name)
+        return self.commands.get(cmd_name)
+
+
+@click.group(cls=_Commands, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="snrgain")
 def cli():
     """How many dB of signal-to-noise ratio would a receiving antenna gain over
@@ -95,21 +116,6 @@ def _stopped(signum: int) -> None:
         pass
     # The shell's convention: 128 + the signal's number (130 for Ctrl-C, 143 for SIGTERM).
     sys.exit(128 + int(signum))
-
-
-cli.add_command(rank)
-cli.add_command(check)
-cli.add_command(new)
-cli.add_command(noise)
-cli.add_command(wire)
-cli.add_command(calibrate)
-cli.add_command(locate)
-cli.add_command(report)
-cli.add_command(figures)
-cli.add_command(sweep)
-cli.add_command(layout)
-cli.add_command(verify)
-cli.add_command(noise_readings)
 
 
 def main() -> None:

@@ -13,6 +13,7 @@ end of the same wire).
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -69,7 +70,11 @@ def state_label(bearing_deg: float) -> str:
     return f"{point} ({b:g} deg)"
 
 
-_BEARINGS = TypeAdapter(list[Bearing])
+@functools.cache
+def _bearings() -> TypeAdapter:
+    """The validator of a switched antenna's bearings, built when a scenario first has one (not at import)."""
+    return TypeAdapter(list[Bearing])
+
 
 MAX_STATE_NAME = 24
 """The longest name a state may be given [characters] (it appears in tables beside the antenna's name)."""
@@ -156,7 +161,7 @@ def _directions_problem(directions, where: str) -> tuple[list[float] | None, lis
     if problems:
         return None, [], problems
     try:
-        bearings = _BEARINGS.validate_python(written)
+        bearings = _bearings().validate_python(written)
     except ValidationError as exc:
         named = {f"{key}.{i + 1}" for i, n in enumerate(names) if n is not None}
         return None, [], [(f"{k}.bearing" if k in named else k, m) for k, m in pydantic_problems(exc, key, written)]
