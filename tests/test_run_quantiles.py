@@ -87,9 +87,12 @@ def test_sorted_runs_by_groups_equal_each_set_sorted_whole(seed):
     masks = [full, rng.random((3, 7)) < 0.5, full, rng.random((3, 7)) < 0.3]
     if seed >= 3:  # sets of many groups: sorted whole
         masks += [rng.random((3, 7)) < 0.6 for _ in range(4)]
+    before = [noise.copy() for noise in noises]
     for hours in (True, False):
         sets = masks + [np.zeros((3, 7), dtype=bool)] if hours else masks  # (no mean over no cells)
         got = spread.sorted_runs(noises, sets, hours)
+        # the runs are sorted in arrays of their own: the noises given are left as they were
+        assert all(np.array_equal(noise, b) for noise, b in zip(noises, before))
         for mask in sets:
             for noise, run in zip(noises, got[mask.tobytes()]):
                 v = -noise[:, mask] if hours else -noise[:, mask].mean(axis=1, keepdims=True)
