@@ -128,3 +128,15 @@ def test_median_is_numpys(seed):
             assert np.shape(got) == np.shape(want)
             np.testing.assert_array_equal(got, want)
     assert spread.median(np.array([3, 1, 2])) == 2.0  # integers: np.median's own
+
+
+@pytest.mark.parametrize("block", [1000, 7])
+def test_noise_db_in_place_equals_the_formula_to_the_bit(monkeypatch, block):
+    # worked block by block in the einsum's own memory: the same numbers as 10 log10(sum + chain) over all draws
+    monkeypatch.setattr(spread, "DRAW_BLOCK", block)
+    rng = np.random.default_rng(1)
+    factors = 10.0 ** rng.normal(0.0, 0.5, (30, 3, 2, 4))
+    temps = rng.uniform(10.0, 1e5, (3, 2, 4))
+    got = spread.noise_db(lambda i, j: factors[i:j], temps, 290.0, 30)
+    want = 10.0 * np.log10(np.einsum("ncmh,cmh->nmh", factors, temps) + 290.0)
+    assert got.tobytes() == want.tobytes()

@@ -155,8 +155,17 @@ def noise_db(factors_of, temps_by_component, t_chain_k: float, draws: int) -> np
     out = []
     for start in range(0, draws, DRAW_BLOCK):
         f = factors_of(start, min(start + DRAW_BLOCK, draws))  # (block, comps, months, hours)
-        out.append(10.0 * np.log10(np.einsum("ncmh,cmh->nmh", f, temps_by_component) + t_chain_k))
-    return np.concatenate(out)
+        block = np.einsum("ncmh,cmh->nmh", f, temps_by_component)
+        block += t_chain_k  # 10 log10(.) worked in the block's own memory
+        np.log10(block, out=block)
+        block *= 10.0
+        out.append(block)
+    return out[0] if len(out) == 1 else np.concatenate(out)
+
+
+def _less(fresh: np.ndarray, other: np.ndarray) -> np.ndarray:
+    """``fresh - other`` in ``fresh``'s own memory (an array nothing else holds)."""
+    return np.subtract(fresh, other, out=fresh)
 
 
 def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
@@ -189,7 +198,7 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
             nodes = [
                 (
                     10.0 * np.log10(p.gains.toward[a] / p.gains.toward[0]),  # (targets,)
-                    noise_db(factors_of, p.temps.by_component[:, a], t_chain[a], draws) - ref,  # (draws, m, h)
+                    _less(noise_db(factors_of, p.temps.by_component[:, a], t_chain[a], draws), ref),  # (draws, m, h)
                     weight,
                 )
                 for (p, weight), ref in zip(per_node, ref_noise)
