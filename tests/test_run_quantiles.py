@@ -87,9 +87,12 @@ def test_sorted_runs_by_groups_equal_each_set_sorted_whole(seed):
     masks = [full, rng.random((3, 7)) < 0.5, full, rng.random((3, 7)) < 0.3]
     if seed >= 3:  # sets of many groups: sorted whole
         masks += [rng.random((3, 7)) < 0.6 for _ in range(4)]
+    before = [noise.copy() for noise in noises]
     for hours in (True, False):
         sets = masks + [np.zeros((3, 7), dtype=bool)] if hours else masks  # (no mean over no cells)
         got = spread.sorted_runs(noises, sets, hours)
+        # the runs are sorted in arrays of their own: the noises given are left as they were
+        assert all(np.array_equal(noise, b) for noise, b in zip(noises, before))
         for mask in sets:
             for noise, run in zip(noises, got[mask.tobytes()]):
                 v = -noise[:, mask] if hours else -noise[:, mask].mean(axis=1, keepdims=True)
@@ -125,3 +128,15 @@ def test_median_is_numpys(seed):
             assert np.shape(got) == np.shape(want)
             np.testing.assert_array_equal(got, want)
     assert spread.median(np.array([3, 1, 2])) == 2.0  # integers: np.median's own
+
+
+@pytest.mark.parametrize("block", [1000, 7])
+def test_noise_db_in_place_equals_the_formula_to_the_bit(monkeypatch, block):
+    # worked block by block in the einsum's own memory: the same numbers as 10 log10(sum + chain) over all draws
+    monkeypatch.setattr(spread, "DRAW_BLOCK", block)
+    rng = np.random.default_rng(1)
+    factors = 10.0 ** rng.normal(0.0, 0.5, (30, 3, 2, 4))
+    temps = rng.uniform(10.0, 1e5, (3, 2, 4))
+    got = spread.noise_db(lambda i, j: factors[i:j], temps, 290.0, 30)
+    want = 10.0 * np.log10(np.einsum("ncmh,cmh->nmh", factors, temps) + 290.0)
+    assert got.tobytes() == want.tobytes()

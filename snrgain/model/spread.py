@@ -155,8 +155,17 @@ def noise_db(factors_of, temps_by_component, t_chain_k: float, draws: int) -> np
     out = []
     for start in range(0, draws, DRAW_BLOCK):
         f = factors_of(start, min(start + DRAW_BLOCK, draws))  # (block, comps, months, hours)
-        out.append(10.0 * np.log10(np.einsum("ncmh,cmh->nmh", f, temps_by_component) + t_chain_k))
-    return np.concatenate(out)
+        block = np.einsum("ncmh,cmh->nmh", f, temps_by_component)
+        block += t_chain_k  # 10 log10(.) worked in the block's own memory
+        np.log10(block, out=block)
+        block *= 10.0
+        out.append(block)
+    return out[0] if len(out) == 1 else np.concatenate(out)
+
+
+def _less(fresh: np.ndarray, other: np.ndarray) -> np.ndarray:
+    """``fresh - other`` in ``fresh``'s own memory (an array nothing else holds)."""
+    return np.subtract(fresh, other, out=fresh)
 
 
 def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
@@ -189,7 +198,7 @@ def snr_spread(sc, grid, skies, nominal) -> SnrSpread:
             nodes = [
                 (
                     10.0 * np.log10(p.gains.toward[a] / p.gains.toward[0]),  # (targets,)
-                    noise_db(factors_of, p.temps.by_component[:, a], t_chain[a], draws) - ref,  # (draws, m, h)
+                    _less(noise_db(factors_of, p.temps.by_component[:, a], t_chain[a], draws), ref),  # (draws, m, h)
                     weight,
                 )
                 for (p, weight), ref in zip(per_node, ref_noise)
@@ -229,6 +238,22 @@ MERGE_GROUPS = 3
 groups' sorted runs; of more, sorted whole."""
 
 
+def _negated_sorted(fresh: np.ndarray) -> np.ndarray:
+    """``np.sort(-fresh.ravel())`` worked in ``fresh``'s own memory (an array nothing else holds: a mask's pick, a
+    mean), for no copies of the samples beyond it."""
+    run = fresh.reshape(-1)
+    np.negative(run, out=run)
+    run.sort()
+    return run
+
+
+def _merged(runs: list[np.ndarray]) -> np.ndarray:
+    """Sorted runs merged: ``np.sort(np.concatenate(runs), kind="stable")`` sorted in the concatenation's memory."""
+    out = np.concatenate(runs)
+    out.sort(kind="stable")
+    return out
+
+
 def sorted_runs(noises, masks, hours: bool) -> dict[bytes, list[np.ndarray]]:
     """Each node's -noise (``noises``: arrays (draws, months, hours)) over each distinct set of listened cells
     (``masks``, keyed by their bytes), sorted: what :func:`run_quantiles` reads, per node.  With the hours counted
@@ -245,8 +270,7 @@ def sorted_runs(noises, masks, hours: bool) -> dict[bytes, list[np.ndarray]]:
         distinct.setdefault(mask.tobytes(), mask)
     if not hours:
         return {
-            key: [np.sort(-noise[:, mask].mean(axis=1, keepdims=True).ravel()) for noise in noises]
-            for key, mask in distinct.items()
+            key: [_negated_sorted(noise[:, mask].mean(axis=1)) for noise in noises] for key, mask in distinct.items()
         }
     held = np.array(list(distinct.values()))  # (sets, months, hours)
     groups: dict[bytes, np.ndarray] = {}  # cells by the sets holding them (cells in none left out)
@@ -258,15 +282,15 @@ def sorted_runs(noises, masks, hours: bool) -> dict[bytes, list[np.ndarray]]:
     for k, (key, mask) in enumerate(distinct.items()):
         parts = [g for g in groups if patterns[g][k]]
         if not 1 <= len(parts) <= MERGE_GROUPS:
-            out[key] = [np.sort(-noise[:, mask].ravel()) for noise in noises]
+            out[key] = [_negated_sorted(noise[:, mask]) for noise in noises]
             continue
         for g in parts:
             if g not in pieces:
-                pieces[g] = [np.sort(-noise[:, groups[g]].ravel()) for noise in noises]
+                pieces[g] = [_negated_sorted(noise[:, groups[g]]) for noise in noises]
         if len(parts) == 1:  # the set is one group: its run
             out[key] = pieces[parts[0]]
             continue
-        out[key] = [np.sort(np.concatenate([pieces[g][i] for g in parts]), kind="stable") for i in range(len(noises))]
+        out[key] = [_merged([pieces[g][i] for g in parts]) for i in range(len(noises))]
     return out
 
 
