@@ -918,3 +918,21 @@ def test_the_sky_gain_on_directions_in_elevation_order_is_the_one_on_them_shuffl
     ordered = phys.sky_gain(fl, c, F, az[order].copy(), el[order].copy(), GROUND)
     shuffled = phys.sky_gain(fl, c, F, az[shuffle].copy(), el[shuffle].copy(), GROUND)
     np.testing.assert_array_equal(ordered[np.argsort(order)], shuffled[np.argsort(shuffle)])
+
+
+def test_the_routes_points_kept_across_grounds_are_the_points_worked():
+    # a spread's grounds ask for the same routes' points again (their samples do not depend on the ground): the
+    # kept points are runs_points' own, to the bit, and read-only
+    from snrgain.memo import forget
+    from snrgain.model import feedline
+
+    forget()
+    runs = [_shield(), phys.FeedLine((10.0, 40.0), (0.0, -5.0), 1.0, None, 0.0035, 25.0)]
+    xs = [phys.route_samples(fl, F, 12.0, closest_at_m=20.0) for fl in runs]
+    todo = [(("k", i), fl, x) for i, (fl, x) in enumerate(zip(runs, xs))]
+    want_q, want_z = phys.runs_points(runs, xs)
+    for _ in range(2):
+        qs, zs = feedline._points_of(todo)
+        np.testing.assert_array_equal(np.concatenate(qs), want_q)
+        np.testing.assert_array_equal(np.concatenate(zs), want_z)
+        assert not any(a.flags.writeable for a in (*qs, *zs))

@@ -162,3 +162,15 @@ def test_a_wires_emfs_from_the_field_at_its_points_are_those_of_the_field_asked_
         assert lead is None
     else:
         np.testing.assert_array_equal(lead, want_lead)
+
+
+def test_grounds_share_one_call_of_the_field_only_where_their_points_are_the_same_bits():
+    # fields_ahead groups a spread's grounds by their points compared bit for bit (as their bytes were), not hashed
+    import numpy as np
+
+    from snrgain.model import placed
+
+    a = np.array([[0.0, 1.5], [2.0, -3.0]])
+    assert placed._same_bits(a, a.copy()) and placed._same_bits(a, a)
+    assert not placed._same_bits(a, np.array([[-0.0, 1.5], [2.0, -3.0]]))  # equal values, other bits
+    assert not placed._same_bits(a, a[:1]) and not placed._same_bits(a, a + 1e-12)

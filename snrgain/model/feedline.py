@@ -368,12 +368,28 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
 
 def _points_of(todo) -> tuple[list, list]:
     """([points], [heights]) of each route of ``todo`` (:func:`_routes_not_held`), worked together
-    (snrgain.physics.feedline.runs_points)."""
+    (snrgain.physics.feedline.runs_points); read-only, kept by the routes and their samples (the same at every
+    ground of a spread where the shield's line does not set the samples, :data:`_POINTS`)."""
     if not todo:
         return [], []
+    xs = tuple(t[2] for t in todo)
+    key = tuple((_route_key(t[1]), id(t[2])) for t in todo)
+    held = _POINTS.get(key, lambda: (xs, *_points_worked(todo)))
+    if any(a is not b for a, b in zip(held[0], xs)):  # another samples' array took a freed one's id
+        return _points_worked(todo)
+    return held[1], held[2]
+
+
+def _points_worked(todo) -> tuple[list, list]:
     q, z = phys.runs_points([t[1] for t in todo], [t[2] for t in todo])
+    q.flags.writeable = z.flags.writeable = False
     cut = np.cumsum([len(t[2]) + (0 if t[1].buried else 2 * phys.LEAD_POINTS) for t in todo])[:-1]
     return np.split(q, cut), np.split(z, cut)
+
+
+_POINTS = Memo(64, max_bytes=32 * 2**20)
+""":func:`_points_of`' points and heights, by the routes and the ids of their samples (held with them, so the ids
+stay their own, and checked on a hit)."""
 
 
 def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:

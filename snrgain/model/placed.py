@@ -367,7 +367,7 @@ def fields_ahead(sc, per_ground) -> None:
     f = sc.freq_hz
     for src in placed:
         for kind, _ in dipoles(src):
-            same: dict = {}
+            same: list = []  # [(points, heights, plans)]: grounds whose points are the same, bit for bit
             for ground, antennas in per_ground:
                 ref_m = antennas[0].params.position or (0.0, 0.0)
                 p = _known_by_groups(antennas)
@@ -378,12 +378,25 @@ def fields_ahead(sc, per_ground) -> None:
                 if plan is None:
                     continue
                 q, z = plan.points()
-                same.setdefault((q.tobytes(), z.tobytes()), []).append(plan)
-            for plans in same.values():
-                q, z = plans[0].points()
+                for q0, z0, plans in same:
+                    if _same_bits(q0, q) and _same_bits(z0, z):
+                        plans.append(plan)
+                        break
+                else:
+                    same.append((q, z, [plan]))
+            for q, z, plans in same:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
                 for plan, part in zip(plans, e):
                     _prefetch_keep(plan, part)
+
+
+def _same_bits(a: np.ndarray, b: np.ndarray) -> bool:
+    """Whether two float arrays hold the same values bit for bit (as their bytes compare; without hashing them)."""
+    if a is b:
+        return True
+    if a.shape != b.shape:
+        return False
+    return bool(np.array_equal(np.ascontiguousarray(a).view(np.int64), np.ascontiguousarray(b).view(np.int64)))
 
 
 _WORKED_AHEAD = Memo(256)
