@@ -936,3 +936,26 @@ def test_the_routes_points_kept_across_grounds_are_the_points_worked():
         np.testing.assert_array_equal(np.concatenate(qs), want_q)
         np.testing.assert_array_equal(np.concatenate(zs), want_z)
         assert not any(a.flags.writeable for a in (*qs, *zs))
+
+
+def test_a_quiet_feed_lines_cost_reads_zero_not_minus_zero():
+    # a buried, choked run's SNR-gain cost is a round-off either side of 0 dB; the build sheet says "costs 0.0 dB"
+    from snrgain.outputs.output import feed_line_text
+
+    fl = {
+        "buried": True,
+        "height_m": 0.0,
+        "isolation": "shared-ground",
+        "antenna_end": "its feed ground rod (20 ohm)",
+        "choke_ohm": 5000.0,
+        "snr_gain_cost_db": [-1e-6, -3e-7],
+        "choke_for_quiet_ohm": 0.0,
+        "quiet_below_db": 20.0,
+        "length_m": 82.0,
+        "station_ground_ohm": 25.0,
+        "noise_share_db": -66.3,
+    }
+    said = feed_line_text(fl, "m")
+    assert "costs 0.0 dB of SNR gain" in said and "-0.0" not in said
+    fl["snr_gain_cost_db"] = [1.26, 0.4]
+    assert "costs 1.3 dB of SNR gain" in feed_line_text(fl, "m")

@@ -465,6 +465,7 @@ def feed_line_text(fl: dict, unit: str) -> str:
     iso = f"shield meets {where}" if fl["isolation"] == "shared-ground" else "isolation transformer"
     choke = f", choke {fl['choke_ohm']:.0f} ohm" if fl["choke_ohm"] else ", no choke"
     cost = max((c for c in fl["snr_gain_cost_db"] if np.isfinite(c)), default=float("nan"))
+    cost = round(cost, 1) + 0.0  # a cost below 0.05 dB, of either sign, reads 0.0 (not -0.0)
     quiet = (
         f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm puts it {fl['quiet_below_db']:g} dB below the antenna's own"
         if fl["choke_for_quiet_ohm"] > 0
