@@ -120,3 +120,24 @@ def test_ranking_legends_stand_clear_of_the_bars_and_their_values(results):
         for p in ax.patches:
             if p.get_width() and p.get_height():
                 assert _overlap(box, p.get_window_extent(renderer)) == 0.0
+
+
+def test_a_keep_outs_name_moves_below_it_when_a_placed_source_sits_inside(results):
+    # a source inside a keep-out (a roof inverter in the house) had its cross drawn on the keep-out's name at the
+    # centre; the name then stands under the outline, and stays at the centre otherwise
+    from matplotlib.text import Annotation
+
+    from snrgain.outputs.siteplan import plan_from_results
+
+    plan = plan_from_results(results)
+    house = [(0.0, 0.0), (20.0, 0.0), (20.0, 15.0), (0.0, 15.0)]
+
+    def name_of(sources):
+        fig = plots.site_plan(results, plan={**plan, "keep_out": [("house", house)], "sources": sources})
+        (note,) = [t for t in fig.axes[0].texts if isinstance(t, Annotation) and t.get_text() == "house"]
+        return note
+
+    clear = name_of([("inverter", (100.0, 100.0))])
+    assert clear.xy == pytest.approx((10.0 * plan["per_m"], 7.5 * plan["per_m"])) and clear.get_va() == "center"
+    inside = name_of([("inverter", (8.0, 7.0))])
+    assert inside.xy == pytest.approx((10.0 * plan["per_m"], 0.0)) and inside.get_va() == "top"

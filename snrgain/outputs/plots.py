@@ -952,6 +952,7 @@ def layout_plan(plan: dict, *, ax=None):
 def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     """Draw a site plan (:mod:`snrgain.outputs.siteplan`) with the antennas' looks."""
     from matplotlib.patches import Circle
+    from matplotlib.path import Path as MplPath
 
     own = ax is None
     fig, (ax,) = _axes(ax, figsize=(8.0, 8.0))
@@ -967,7 +968,15 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     for i, (name, pts) in enumerate(plan["keep_out"]):
         kx, ky = xy(list(pts) + [pts[0]])
         ax.fill(kx, ky, color="0.78", ec="0.3", lw=1, label="keep out" if i == 0 else None, zorder=1)
-        ax.annotate(name, (float(np.mean(kx[:-1])), float(np.mean(ky[:-1]))), ha="center", va="center", fontsize=8)
+        centre = (float(np.mean(kx[:-1])), float(np.mean(ky[:-1])))
+        outline = MplPath(np.asarray(pts, dtype=float))
+        if any(outline.contains_point(pos) for _, pos in plan["sources"]):  # a source's cross would sit on the name
+            ax.annotate(
+                name, (centre[0], float(np.min(ky))), xytext=(0, -2), textcoords="offset points", ha="center",
+                va="top", fontsize=8,
+            )  # fmt: skip
+        else:
+            ax.annotate(name, centre, ha="center", va="center", fontsize=8)
     if plan["tx"] is not None and plan["clearance_m"]:
         c = plan["clearance_m"]
         how = "given" if plan["clearance_given"] else "half a wavelength"
