@@ -70,14 +70,19 @@ def _score(sc, grid, skies, k):
     return steering.TerminationScore(sc, grid, skies, ref, put, k, ti), ref, put, ti
 
 
+def _resistors(sc, k: int, factors) -> list:
+    """Antenna k of ``sc`` with its resistor at each of ``factors`` times its matched termination."""
+    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
+    return [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * factors]
+
+
 @pytest.mark.parametrize("name", ["bev", "bog", "flag"])
 def test_the_fitted_form_gives_the_full_passes_scores(tmp_path, name):
     sc, grid, skies = _scenario(tmp_path)
     k = [a.name for a in sc.antennas].index(name)
     score, ref, put, ti = _score(sc, grid, skies, k)
-    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
-    first = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
-    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.4, 0.77, 1.3, 2.2])]
+    first = _resistors(sc, k, np.geomspace(0.15, 3.0, 12))
+    later = _resistors(sc, k, np.array([0.4, 0.77, 1.3, 2.2]))
     got = np.concatenate([score(first), score(later)])
     assert score.model is not None and not score.direct  # the form held: the later resistors cost no products
     want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in first + later], k, ti)
@@ -90,8 +95,7 @@ def test_a_form_that_does_not_hold_falls_back_to_the_full_passes(tmp_path, monke
     score, ref, put, ti = _score(sc, grid, skies, k)
     formed = steering.TerminationScore._formed
     monkeypatch.setattr(steering.TerminationScore, "_formed", lambda self, v: formed(self, v) * (1 + 1e-5))
-    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
-    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    variants = _resistors(sc, k, np.geomspace(0.15, 3.0, 12))
     got = score(variants)
     assert score.direct and score.model is None
     want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants], k, ti)
@@ -111,9 +115,8 @@ def test_a_wire_with_a_feed_line_takes_the_form_with_its_feed_line_worked_apart(
     sc, grid, skies = _scenario(tmp_path, text)
     k = [a.name for a in sc.antennas].index("bev")
     score, ref, put, ti = _score(sc, grid, skies, k)
-    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
-    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
-    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.4, 0.77, 1.3, 2.2])]
+    variants = _resistors(sc, k, np.geomspace(0.15, 3.0, 12))
+    later = _resistors(sc, k, np.array([0.4, 0.77, 1.3, 2.2]))
     got = np.concatenate([score(variants), score(later)])
     assert score.feed_lines and score.model is not None and not score.direct
     assert score.amplitudes is not None  # the wire's own amplitudes from the source took the form too
@@ -133,10 +136,9 @@ def test_the_own_amplitudes_form_gives_the_feed_lines_part_as_the_sources_pickup
     sc, grid, skies = _scenario(tmp_path, text)
     k = [a.name for a in sc.antennas].index("bev")
     score, ref, put, ti = _score(sc, grid, skies, k)
-    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
-    score([variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)])
+    score(_resistors(sc, k, np.geomspace(0.15, 3.0, 12)))
     assert score.amplitudes is not None
-    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.3, 0.9, 1.7, 2.6])]
+    later = _resistors(sc, k, np.array([0.3, 0.9, 1.7, 2.6]))
     probes = [score._probe_response(v) for v in later]
     fast = score._placed(later, own=score._own_amplitudes(later, probes))
     full = score._placed(later)
@@ -151,9 +153,8 @@ def test_a_flags_feed_line_whose_own_pickup_is_not_of_the_form_is_worked_in_full
     sc, grid, skies = _scenario(tmp_path, text)
     k = [a.name for a in sc.antennas].index("flag")
     score, ref, put, ti = _score(sc, grid, skies, k)
-    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
-    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
-    later = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.array([0.4, 0.77, 1.3, 2.2])]
+    variants = _resistors(sc, k, np.geomspace(0.15, 3.0, 12))
+    later = _resistors(sc, k, np.array([0.4, 0.77, 1.3, 2.2]))
     got = np.concatenate([score(variants), score(later)])
     assert score.feed_lines and score.model is not None and not score.direct and score.amplitudes is None
     want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants + later], k, ti)
@@ -174,8 +175,7 @@ def test_a_feed_line_part_that_does_not_match_the_products_falls_back_to_the_ful
     score, ref, put, ti = _score(sc, grid, skies, k)
     cells = feedline.sky_cells
     monkeypatch.setattr(feedline, "sky_cells", lambda *a, **kw: cells(*a, **kw) * (1 + 1e-5))
-    matched = bare(sc.antennas[k]).matched_termination_ohm(sc.freq_hz)
-    variants = [variant(bare(sc.antennas[k]), termination=float(r)) for r in matched * np.geomspace(0.15, 3.0, 12)]
+    variants = _resistors(sc, k, np.geomspace(0.15, 3.0, 12))
     got = score(variants)
     assert score.direct and score.model is None
     want = steering._median_gains(sc, grid, skies, ref, [put(a) for a in variants], k, ti)

@@ -1202,7 +1202,7 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
                 continue  # fields_ahead worked it (a spread's other grounds)
             ahead = others
             if others:  # once per source for the same other wires (a layout asking place after place)
-                key = (tuple(id(a) for a in others), _source_key(src, kind), _ground_key(ground), float(sc.freq_hz))
+                key = _ahead_key(others, src, kind, ground, sc.freq_hz)
                 ahead = [] if key in _AHEAD else others
                 _AHEAD.get(key, lambda: tuple(others))  # held with the wires, so their ids stay their own
             routes = feedline.route_points_ahead(sc, [*antennas, *ahead], src, kind, sc.freq_hz, ground)

@@ -97,6 +97,18 @@ def unheard(sc: Scenario, ant, grid, skies, ref: Products, placed_names) -> Prod
     return Products((ref.antennas[0], ant), gains, snr.Temperatures(by, by.sum(axis=0)), powers, ref.ground)
 
 
+def first_two(p: Products) -> Products:
+    """Products of the reference and the first antenna of ``p`` alone (what one design's next places take from its
+    products at many places: snrgain.tools.layout); ``p`` itself where feed lines are in it."""
+    if p.feed_lines is not None:
+        return p
+    g, t = p.gains, p.temps
+    gains = snr.Gains(g.caches[:2], g.toward[:2], g.mean[:2])
+    temps = snr.Temperatures(t.by_component[:, :2], t.total[:2])
+    powers = {n: v[:2] for n, v in p.powers.items()}
+    return Products(p.antennas[:2], gains, temps, powers, p.ground)
+
+
 def _known_rows(antennas: tuple, known: Products | None) -> list:
     """For each antenna, the row of ``known`` holding it (the same object, or the same antenna at another place:
     ``gain_key``), or None."""

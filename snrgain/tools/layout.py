@@ -274,7 +274,9 @@ class Problem:
         with tabled():  # the search's own scores: the source's field read from its tables at every place
             p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=known)
         if fresh and len(designs) > 1:  # kept for the design's next places: the reference and its first place
-            self._sky[key] = (ants[0], _first_two(p))
+            from snrgain.model.products import first_two
+
+            self._sky[key] = (ants[0], first_two(p))
         gains = _statistic(sub, pipeline.snr_gains(sub, p), self.target[i][0])[1:]
         return gains - self.tx_costs_db(ants)
 
@@ -748,21 +750,6 @@ class Problem:
             if all(self.violation_m(d, ds[:j]) == 0.0 for j, d in enumerate(ds)):
                 return self._layout(ds)
         raise ValueError("layout: no valid random placement found")
-
-
-def _first_two(p):
-    """Products of the reference and the first antenna of ``p`` alone (what a design's next places take from it);
-    ``p`` itself where feed lines are in it."""
-    if p.feed_lines is not None:
-        return p
-    from snrgain.model import snr
-    from snrgain.model.products import Products
-
-    g, t = p.gains, p.temps
-    gains = snr.Gains(g.caches[:2], g.toward[:2], g.mean[:2])
-    temps = snr.Temperatures(t.by_component[:, :2], t.total[:2])
-    powers = {n: v[:2] for n, v in p.powers.items()}
-    return Products(p.antennas[:2], gains, temps, powers, p.ground)
 
 
 def _spare_core() -> bool:
