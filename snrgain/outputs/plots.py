@@ -1000,7 +1000,8 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         ax.plot(fx[1:], fy[1:], marker="s", color="0.25", ms=5, ls="none", zorder=3)
     for a in plan["antennas"]:
         lk = looks[a["name"]]
-        label = a["name"] + (" (reference)" if a["reference"] else "")
+        label = a.get("shown_as") or a["name"]  # a switched antenna's states that stand as one: its own name
+        label += " (reference)" if a["reference"] else ""
         note = f"; {a['note']}" if a.get("note") else ""  # in its own entry it would stand in the other column
         for p in a["parts"]:
             px, py = xy(p["coords"])
@@ -1018,7 +1019,10 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                     zorder=5,
                 )
             elif p["kind"] == "elements":
-                ax.plot(px, py, color=lk.color, ls=lk.linestyle, lw=0.8, zorder=4)
+                # joined around their centre (a four-square's square, not a Z through the elements' order)
+                turn = np.argsort(np.arctan2(py - np.mean(py), px - np.mean(px)))
+                ring = np.append(turn, turn[:1]) if len(turn) > 2 else turn
+                ax.plot(px[ring], py[ring], color=lk.color, ls=lk.linestyle, lw=0.8, zorder=4)
                 ax.plot(
                     px, py, marker=lk.marker, color=lk.color, mec="black", ms=8, ls="none", label=label + note, zorder=5
                 )
