@@ -642,3 +642,12 @@ def test_a_signal_landing_in_a_finaliser_still_stops_the_command_quietly():
     assert res.returncode == 143, res.stderr
     assert b"carried on" not in res.stdout
     assert b"Exception ignored" not in res.stderr and b"Traceback" not in res.stderr
+
+
+@pytest.mark.parametrize("command, option", [("figures", "--dir"), ("rank", "--output"), ("report", "--output")])
+def test_an_output_folder_that_does_not_exist_is_named_with_what_to_do(tmp_path, command, option):
+    missing = tmp_path / "not-made"
+    target = missing if option == "--dir" else missing / "out.html"
+    res, _ = _check(tmp_path, MINIMAL, option, str(target), command=command)
+    assert res.exit_code != 0 and not missing.exists()
+    assert f"folder {missing} does not exist; create it first (mkdir {missing})" in " ".join(res.output.split())
