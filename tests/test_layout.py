@@ -327,3 +327,30 @@ def test_a_forked_process_only_beside_a_spare_core(monkeypatch):
     monkeypatch.setattr(drawing, "workers", lambda count: 1)  # one core, no fork, or SNRGAIN_WORKERS=1
     monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
     assert not layout._spare_core()
+
+
+def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp_path):
+    # a feed line on a placeable candidate: the layout scores the antenna without it (its run depends on where the
+    # antenna stands) and says so; the written layout ranks with it, and rank's nominal equals the layout's score
+    # for the antenna without a feed line
+    text = (DATA / FILES[0]).read_text(encoding="utf-8")
+    marker = 'place = { bearing = ["30 deg", "60 deg"]'
+    assert marker in text
+    fed = 'position = [0, 100]\nfeed_line = { to = [30, 12], height = "buried" }\n'  # where it stood before
+    text = text.replace(marker, fed + marker, 1)
+    src, out = tmp_path / "fed.toml", tmp_path / "placed.toml"
+    src.write_text(text, encoding="utf-8")
+    runner = CliRunner()
+    res = runner.invoke(cli, ["layout", str(src), "--write", str(out), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    got = json.loads(res.stdout)
+    assert got["notes"] and got["notes"][0].startswith("Beverage Europe: its feed line is not in the layout's score")
+    best = {c["name"]: c for c in got["layouts"][0]["candidates"]}
+    rank = runner.invoke(cli, ["rank", str(out), "--format", "json"])
+    assert rank.exit_code == 0, rank.output
+    ranked = json.loads(rank.stdout)
+    assert "feed_line" in ranked["build"]["Beverage Europe"]
+    nominal = {(r["name"], t["name"]): r["snr_gain_db"]["nominal"] for t in ranked["targets"] for r in t["ranking"]}
+    pac = best["Beverage Pacific"]
+    # (the written file rounds places to 0.1 m and bearings to 0.1 deg)
+    assert nominal[("Beverage Pacific", pac["target"])] == pytest.approx(pac["snr_gain_db"], abs=0.01)

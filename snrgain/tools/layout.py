@@ -189,7 +189,7 @@ class Problem:
 
         name = self.names[i]
         spec = dict(next(c for c in self.data.get("candidate", []) if c.get("name") == name))
-        for key in ("place", "chain", "position"):
+        for key in ("place", "chain", "position", "feed_line"):  # its feed line: not scored here (unscored_feed_lines)
             spec.pop(key, None)
         if bearing_rad is not None:
             spec["bearing"] = f"{np.degrees(bearing_rad):.6f} deg"
@@ -876,6 +876,13 @@ def _distinct(found, k):
         if len(out) == k:
             break
     return out
+
+
+def unscored_feed_lines(data: dict) -> list[str]:
+    """The placeable candidates of the scenario's tables ``data`` that give a feed line: the layout scores them
+    without it (its run, and what it hears, depend on where the antenna stands); ``rank`` on the written layout
+    scores it."""
+    return [c.get("name", "?") for c in data.get("candidate", []) if "place" in c and "feed_line" in c]
 
 
 def as_dict(layouts: list[Layout]) -> dict:
