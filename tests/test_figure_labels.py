@@ -141,3 +141,19 @@ def test_a_keep_outs_name_moves_below_it_when_a_placed_source_sits_inside(result
     assert clear.xy == pytest.approx((10.0 * plan["per_m"], 7.5 * plan["per_m"])) and clear.get_va() == "center"
     inside = name_of([("inverter", (8.0, 7.0))])
     assert inside.xy == pytest.approx((10.0 * plan["per_m"], 0.0)) and inside.get_va() == "top"
+
+
+def test_the_north_arrow_takes_a_free_corner():
+    # the site plan's north arrow stands top right unless something is drawn there (a flag placed in that corner
+    # of the lot sat under it), then in the next free corner
+    from snrgain.outputs.plots import _north_corner
+
+    xlim, ylim = (-170.0, 270.0), (-135.0, 195.0)  # the lot (-150..250 by -120..180) and its margins
+    empty = np.zeros((0, 2))
+    x, y = _north_corner(empty, xlim, ylim)
+    assert x > 200 and y > 100  # top right
+    x, y = _north_corner(np.array([[248.0, 176.0], [0.0, 0.0]]), xlim, ylim)
+    assert x < -100 and y > 100  # top left
+    crowded = np.array([[248.0, 176.0], [-140.0, 170.0], [-140.0, 150.0], [0.0, 0.0]])
+    x, y = _north_corner(crowded, xlim, ylim)
+    assert x > 200 and y < 0  # bottom right

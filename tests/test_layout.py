@@ -207,14 +207,25 @@ def test_the_rules_worked_on_many_designs_at_once_match_one_by_one(name):
             "position": [0, 150],
         }
     )
+    data["candidate"].append(  # an array that stays where written: every design keeps 10 m from its elements
+        {
+            "name": "fixed pair",
+            "family": "phased-verticals",
+            "positions": [[60, 40], [60, 55]],
+            "height": "6 m",
+            "bearing": 0,
+        }
+    )
     data["site"]["tx_clearance"] = "30 m"
     pb = Problem(load(data), data, base_dir=base)
+    assert [name for name, _ in pb.fixed_spots] == ["fixed pair"]
     for i in range(len(pb.names)):
         pairs, points = pb.grid_designs(i)
         designs = [Design(pb.names[i], e, n, b, ln) for b, ln in pairs[::3] for e, n in points]
         one = [pb.violations(d) for d in designs]
         assert pb.violations_many(designs) == one
         assert any(one) and not all(one)
+        assert any("from the antenna 'fixed pair'" in rule for v in one for rule in v)
         # the flags alone (the grid's feasibility, the refinement's trials): broken exactly where a value is > 0
         assert list(pb.keep_rules(designs)) == [not v for v in one]
         flags = pb.violation_columns(designs, flags=True)

@@ -1090,10 +1090,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     ax.grid(alpha=0.3)
     x_lo, x_hi = ax.get_xlim()
     y_lo, y_hi = ax.get_ylim()
+    fx, fy = _north_corner(_plan_points(plan, k), (x_lo, x_hi), (y_lo, y_hi))
     ax.annotate(
         "N",
-        xy=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.04 * (y_hi - y_lo)),
-        xytext=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.16 * (y_hi - y_lo)),
+        xy=(fx, fy + 0.12 * (y_hi - y_lo)),
+        xytext=(fx, fy),
         ha="center",
         fontsize=12,
         fontweight="bold",
@@ -1105,6 +1106,38 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     if own:  # below the plot: its axis label, then the legend's rows
         _place(fig, left=0.9, right=0.3, top=0.6, bottom=0.9 + 0.2 * ((entries + 1) // 2))
     return fig
+
+
+def _plan_points(plan: dict, k: float) -> np.ndarray:
+    """Every point a plan draws (antennas, wires every few metres, sources, keep-outs, the vertical), scaled by
+    ``k`` to the plan's unit: (n, 2)."""
+    pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
+    for a in plan["antennas"]:
+        for p in a["parts"]:
+            if p["kind"] == "wire":
+                (e0, n0), (e1, n1) = p["coords"][0], p["coords"][-1]
+                t = np.linspace(0.0, 1.0, 40)
+                pts += list(zip(e0 + t * (e1 - e0), n0 + t * (n1 - n0)))
+    pts += [xy for _, xy in plan.get("sources", [])] + [c for _, cs in plan.get("keep_out", []) for c in cs]
+    pts += [plan["tx"]] if plan.get("tx") is not None else []
+    return np.asarray(pts, dtype=float).reshape(-1, 2) * k
+
+
+def _north_corner(points: np.ndarray, xlim, ylim) -> tuple[float, float]:
+    """Where the north arrow goes: (x, y of the "N" under its tail) in the corner of the axes (top right first, then
+    top left, bottom right, bottom left) whose arrow box holds the fewest drawn ``points`` (a flag in the top right
+    corner kept the arrow off it); the arrow runs from y up 12 % of the height."""
+    (x_lo, x_hi), (y_lo, y_hi) = xlim, ylim
+    w, h = x_hi - x_lo, y_hi - y_lo
+    best = None
+    for right, top in ((True, True), (False, True), (True, False), (False, False)):
+        x = x_hi - 0.06 * w if right else x_lo + 0.06 * w
+        y = y_hi - 0.16 * h if top else y_lo + 0.08 * h
+        box = (np.abs(points[:, 0] - x) < 0.05 * w) & (points[:, 1] > y - 0.05 * h) & (points[:, 1] < y + 0.17 * h)
+        n = int(np.count_nonzero(box))
+        if best is None or n < best[0]:
+            best = (n, x, y)
+    return best[1], best[2]
 
 
 def located_sources(res, *, ax=None):

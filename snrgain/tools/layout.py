@@ -177,6 +177,18 @@ class Problem:
         fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in moved and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
+        # the antennas that stay where written and are not wires (an array's elements, a vertical, a loop): every
+        # placed design keeps WIRE_SEPARATION_M from them (a wire through a four-square couples to its elements);
+        # a switched antenna's states stand once
+        spots: dict = {}
+        for a in sc.candidates:
+            if a.name in moved or a.long_wire:
+                continue
+            shape = footprint(a)
+            if shape is not None and shape.length == 0 and not any(shape.equals(t) for t in spots.values()):
+                st = switched_state(a)
+                spots[st.group if st is not None else a.name] = shape
+        self.fixed_spots = list(spots.items())
         self._sky: dict[tuple, tuple] = {}
         self._scored: dict[tuple, float] = {}
         self._points: list[tuple[float, float]] | None = None
@@ -362,8 +374,8 @@ class Problem:
 
     def violations(self, d: Design, others=()) -> dict[str, float]:
         """How far a design breaks each rule [m], by the rule and what it names: outside the lot, inside a keep-out
-        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing); only the
-        rules it breaks."""
+        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing) or to an
+        antenna that stays where written (an array's elements, a vertical, a loop); only the rules it breaks."""
         shape = self.footprint(d)
         out = {}
         v = (
@@ -387,6 +399,10 @@ class Problem:
                 out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}"] = (
                     10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
                 )
+        for name, spot in self.fixed_spots:
+            out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the antenna {name!r}"] = max(
+                0.0, WIRE_SEPARATION_M - shape.distance(spot)
+            )
         return {k: float(x) for k, x in out.items() if x > 0}
 
     def violations_many(self, designs: list[Design], others=()) -> list[dict[str, float]]:
@@ -468,6 +484,13 @@ class Problem:
                         np.where(line, near, 0.0),
                     )
                 )
+        for name, spot in self.fixed_spots:
+            columns.append(
+                (
+                    f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the antenna {name!r}",
+                    np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, spot)),
+                )
+            )
         return columns
 
     def violation_m(self, d: Design, others=()) -> float:
