@@ -779,9 +779,10 @@ def _statistic(sc, g: np.ndarray, t: int) -> np.ndarray:
     once, from SNR gains (antennas, targets, months, hours): the median (or the mean) of each row over the target's
     months and hours (snrgain.model.spread.over_hours)."""
     from snrgain.model.products import target_masks
+    from snrgain.model.spread import median  # np.median's value without loading numpy.ma
 
     v = g[:, t][:, target_masks(sc)[t]]  # (antennas, the target's month-hours)
-    return np.median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
+    return median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
 
 
 def _member(antenna) -> str:
