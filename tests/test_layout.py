@@ -291,12 +291,12 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
     # one after the other here, to the bit, and the search's layouts the same.
     import snrgain.tools.layout as layout
 
-    monkeypatch.setattr(layout, "_spare_core", lambda: False)
+    monkeypatch.setattr(layout, "spare_core", lambda: False)
     one = _problem(FILES[1])
     feasible = [one.feasible(i) for i in range(len(one.names))]
     assert len(feasible) > 1
     alone = one.grid_all(feasible)
-    monkeypatch.setattr(layout, "_spare_core", lambda: True)
+    monkeypatch.setattr(layout, "spare_core", lambda: True)
     two = _problem(FILES[1])
     seen = []
     shared = two.grid_all(feasible, progress=lambda done, total: seen.append((done, total)))
@@ -304,40 +304,12 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
     assert seen[-1] == (sum(map(len, feasible)),) * 2
     # a candidate scored in the other process leaves no products here: the search makes its start again
     assert not any(k[0] == len(feasible) - 1 for k in two._sky)
-    monkeypatch.setattr(layout, "_spare_core", lambda: False)
+    monkeypatch.setattr(layout, "spare_core", lambda: False)
     want = one.search(keep=2)
-    monkeypatch.setattr(layout, "_spare_core", lambda: True)
+    monkeypatch.setattr(layout, "spare_core", lambda: True)
     got = _problem(FILES[1]).search(keep=2)
     assert [lay.designs for lay in got] == [lay.designs for lay in want]
     assert [lay.snr_gain_db for lay in got] == [lay.snr_gain_db for lay in want]
-
-
-def test_work_elsewhere_gives_its_result_or_none():
-    from snrgain.tools.layout import _elsewhere
-
-    with _elsewhere(lambda: {"scores": [1.5, 2.5]}) as got:
-        here = sum(range(10))
-        assert got() == {"scores": [1.5, 2.5]}
-    assert here == 45
-    with _elsewhere(lambda: 1 / 0) as got:  # a failure there: None, nothing raised or printed here
-        assert got() is None
-
-
-def test_a_forked_process_only_beside_a_spare_core(monkeypatch):
-    import os
-
-    import snrgain.outputs.drawing as drawing
-    import snrgain.tools.layout as layout
-
-    monkeypatch.setattr(os, "sched_getaffinity", lambda pid: {0, 1}, raising=False)
-    monkeypatch.setattr(drawing, "workers", lambda count: 2)
-    monkeypatch.setattr(os, "getloadavg", lambda: (1.2, 1.0, 1.0))
-    assert layout._spare_core()
-    monkeypatch.setattr(os, "getloadavg", lambda: (3.0, 1.0, 1.0))  # busy: no second process
-    assert not layout._spare_core()
-    monkeypatch.setattr(drawing, "workers", lambda count: 1)  # one core, no fork, or SNRGAIN_WORKERS=1
-    monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
-    assert not layout._spare_core()
 
 
 def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp_path):

@@ -112,6 +112,30 @@ def test_a_termination_searchs_resistors_in_one_pass_equal_each_alone():
     )
 
 
+@pytest.mark.parametrize("family", ["beverage", "unterminated"])
+def test_a_wires_sample_grids_through_the_line_at_once_equal_each_alone(family):
+    # through_line_grids (the line and loads asked for once, the grids' transfer functions worked together, some
+    # already kept) gives through_line's currents on each grid; an open far end too
+    from snrgain.physics.reciprocity import through_line_grids
+
+    wire = from_si(family, length=220.0, height=2.0, bearing=0.4, ground="moist loam")
+    src = _source((30.0, 90.0), 2.0)
+    u = np.array([np.sin(0.4), np.cos(0.4)])
+    parts = []
+    for n, closest in ((1, 20.0), (3, 5.0), (2, 60.0)):
+        x = placed.wire_grid(wire, src, F_HZ, closest)
+        feeds = np.column_stack([np.linspace(-20.0, 20.0, n), np.zeros(n)])
+        emf, lead = placed._source_emfs(wire, src, F_HZ, feeds, wire.ground, x, u, "vertical")
+        parts.append((x, emf, lead))
+    want = [through_line(wire, F_HZ, x, emf, lead) for x, emf, lead in parts]
+    forget()
+    through_line(wire, F_HZ, *parts[1])  # one grid's transfer function kept, the others not
+    got = through_line_grids(wire, F_HZ, parts)
+    assert len(got) == len(want)
+    for g, w in zip(got, want):
+        np.testing.assert_allclose(g, w, rtol=1e-13, atol=0)
+
+
 @pytest.mark.parametrize("pol", ["vertical", "both"])
 def test_pickup_of_a_termination_searchs_resistors_equals_each_alone(pol):
     # pickup hears the resistors tried on one wire at one place together (placed._load_variant_powers): each power

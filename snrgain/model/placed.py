@@ -68,6 +68,7 @@ from snrgain.physics.quadrature import even_samples
 from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps, through_lines, wire_currents_in_field  # noqa: F401 (the module's API)
 from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
+from snrgain.physics.reciprocity import through_line_grids as _through_line_grids
 from snrgain.physics.reciprocity import wire_emfs as _emfs
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
@@ -285,8 +286,8 @@ def _currents_on_grids(wire, src, freq_hz, feeds, ground, grids, u, kind=None) -
             lead[up] = (e[n_along:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
     out = np.zeros(len(feeds), dtype=complex)
     a0 = l0 = 0
+    parts = []
     for x, which in grids:
-        which = np.asarray(which)
         n = len(which)
         part = emf[a0 : a0 + n * len(x)].reshape(n, -1)
         a0 += n * len(x)
@@ -294,7 +295,9 @@ def _currents_on_grids(wire, src, freq_hz, feeds, ground, grids, u, kind=None) -
         if has_leads:
             lead_g = lead[l0 : l0 + 2 * n]
             l0 += 2 * n
-        out[which] = _through_line(wire, freq_hz, x, part, lead_g)
+        parts.append((x, part, lead_g))
+    for (_, which), current in zip(grids, _through_line_grids(wire, freq_hz, parts)):  # the grids' lines at once
+        out[np.asarray(which)] = current
     return out
 
 

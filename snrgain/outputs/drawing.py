@@ -31,8 +31,7 @@ import os
 import pickle
 from collections.abc import Callable, Iterator, Sequence
 
-ENV_WORKERS = "SNRGAIN_WORKERS"
-"""Environment variable: the most worker processes to draw with (1: draw in this process)."""
+from snrgain.processes import worker_start, workers
 
 _JOBS: Sequence[tuple[Callable, str, dict]] = ()
 """The jobs of the current drawing, read by forked workers (set before the pool forks)."""
@@ -445,23 +444,6 @@ def warm_up_figure(fmt: str = "png") -> None:
     figure_bytes(fig, fmt, dpi=72, bbox_inches="tight")
 
 
-def worker_start(parent: int) -> None:
-    """In each worker: die with the command (Linux PR_SET_PDEATHSIG), so a killed command leaves no worker behind
-    holding its output pipes; leave Ctrl-C and SIGTERM to the command, which stops the drawing cleanly."""
-    import signal
-
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
-    try:
-        import ctypes
-
-        ctypes.CDLL(None, use_errno=True).prctl(1, signal.SIGKILL)  # 1: PR_SET_PDEATHSIG
-    except (OSError, AttributeError):  # not Linux: the pool's own shutdown still ends the workers
-        pass
-    if os.getppid() != parent:  # the command died before the line above took effect
-        os._exit(1)
-
-
 def _warmed(fmt: str) -> bool:
     """:func:`warm_up_figure` in the figures' helper; True (done, or failed: only time lost)."""
     try:
@@ -480,24 +462,6 @@ def _drawing_worker_start(parent: int) -> None:
 def _run(index: int) -> bytes:
     make, fmt, savefig = _JOBS[index]
     return figure_bytes(make(), fmt, **savefig)
-
-
-def workers(count: int) -> int:
-    """How many processes to draw ``count`` figures with: the cores this process may use, at most the figures and
-    $SNRGAIN_WORKERS; 1 where fork is not available."""
-    try:
-        cores = len(os.sched_getaffinity(0))
-    except AttributeError:  # not on Linux
-        cores = os.cpu_count() or 1
-    limit = os.environ.get(ENV_WORKERS, "").strip()
-    if limit:
-        try:
-            cores = min(cores, max(1, int(limit)))
-        except ValueError:
-            raise ValueError(f"{ENV_WORKERS}={limit!r}: give a whole number of processes, 1 or more") from None
-    if "fork" not in multiprocessing.get_all_start_methods():
-        return 1
-    return max(1, min(cores, count))
 
 
 def draw_all(
