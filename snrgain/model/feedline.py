@@ -372,12 +372,10 @@ def _points_of(todo) -> tuple[list, list]:
     ground of a spread where the shield's line does not set the samples, :data:`_POINTS`)."""
     if not todo:
         return [], []
-    xs = tuple(t[2] for t in todo)
     key = tuple((_route_key(t[1]), id(t[2])) for t in todo)
-    held = _POINTS.get(key, lambda: (xs, *_points_worked(todo)))
-    if any(a is not b for a, b in zip(held[0], xs)):  # another samples' array took a freed one's id
-        return _points_worked(todo)
-    return held[1], held[2]
+    # the samples are held with their points: no other array can take their ids while the entry stands
+    _, q, z = _POINTS.get(key, lambda: (tuple(t[2] for t in todo), *_points_worked(todo)))
+    return q, z
 
 
 def _points_worked(todo) -> tuple[list, list]:
@@ -389,7 +387,7 @@ def _points_worked(todo) -> tuple[list, list]:
 
 _POINTS = Memo(64, max_bytes=32 * 2**20)
 """:func:`_points_of`' points and heights, by the routes and the ids of their samples (held with them, so the ids
-stay their own, and checked on a hit)."""
+stay their own)."""
 
 
 def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
