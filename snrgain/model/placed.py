@@ -1120,6 +1120,12 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
     incident plus ground-reflected (Fresnel coefficients), phase 0 at the origin: vertical polarisation ("v", its
     vertical part cos(el) [exp(+j k z sin el) + R_v exp(-j k z sin el)] as the families' patterns take it) or
     horizontal ("h")."""
+    return plane_wave_fields(freq_hz, points_m, azimuth_rad, elevation_rad, ground, pols=(pol,))[0]
+
+
+def plane_wave_fields(freq_hz: float, points_m, azimuth_rad: float, elevation_rad: float, ground, pols=("v", "h")):
+    """:func:`plane_wave_field` of each polarisation of ``pols``, the incident and reflected phases at the points
+    worked once for them all (the same values)."""
     from snrgain.physics.ground import reflection_coefficients
 
     k = 2 * np.pi * freq_hz / C_M_PER_S
@@ -1131,10 +1137,13 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
     r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([elevation_rad]), freq_hz))
     direct = np.exp(1j * k * pts @ toward)[:, None]
     reflected = np.exp(1j * k * pts @ mirror)[:, None]
-    if pol == "v":
-        return direct * np.array([-se * sa, -se * ca, ce]) + r_v * reflected * np.array([se * sa, se * ca, ce])
-    p_h = np.array([ca, -sa, 0.0])
-    return (direct + r_h * reflected) * p_h
+    out = []
+    for pol in pols:
+        if pol == "v":
+            out.append(direct * np.array([-se * sa, -se * ca, ce]) + r_v * reflected * np.array([se * sa, se * ca, ce]))
+        else:
+            out.append((direct + r_h * reflected) * np.array([ca, -sa, 0.0]))
+    return out
 
 
 def has_place(antenna) -> bool:
@@ -1166,8 +1175,9 @@ def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str, segme
     el = float(src.elevation_rad)
     rv, rh = antenna.complex_response(freq_hz, np.array([az]), np.array([el]))
     best = None
-    for pol, r in (("v", complex(rv[0])), ("h", complex(rh[0]))):
-        v_pw = np.einsum("ni,ni,n->", plane_wave_field(freq_hz, pts, az, el, ground, pol), dirs, cur)
+    waves = plane_wave_fields(freq_hz, pts, az, el, ground)  # both polarisations' fields from one pair of phases
+    for wave, r in zip(waves, (complex(rv[0]), complex(rh[0]))):
+        v_pw = np.einsum("ni,ni,n->", wave, dirs, cur)
         if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
             best = (r, v_pw)
     if best is None or best[0] == 0:
