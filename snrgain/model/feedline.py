@@ -355,15 +355,55 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
         routes = list(_routes(sc, antennas).values())
     except ValueError:
         return []
-    out = []
     todo = _routes_not_held(routes, src, kind, freq_hz, ground)
-    for (key, fl, x), q, z in zip(todo, *_points_of(todo)):
+    where = _source_key(src, kind, freq_hz, ground)
+    return [(q, z, RouteKeep(key, fl, x, where, ground)) for (key, fl, x), q, z in zip(todo, *_points_of(todo))]
 
-        def keep(part, key=key, fl=fl, x=x):
-            _memo(key, lambda: phys.route_emf_from(fl, x, part))
 
-        out.append((q, z, keep))
-    return out
+class RouteKeep:
+    """:func:`route_points_ahead`'s ``keep`` of one route, a placed source's dipole and a ground: called with the
+    field at the route's points, it puts the route's EMFs in the memo; :func:`keep_routes_grounds` keeps one route
+    over a spread's grounds together."""
+
+    __slots__ = ("key", "fl", "x", "where", "ground")
+
+    def __init__(self, key, fl, x, where, ground):
+        self.key, self.fl, self.x, self.where, self.ground = key, fl, x, where, ground
+
+    def __call__(self, part) -> None:
+        _memo(self.key, lambda: phys.route_emf_from(self.fl, self.x, part))
+
+
+def keep_routes_grounds(keeps, e: np.ndarray, freq_hz: float) -> None:
+    """Each of ``keeps`` (:class:`RouteKeep`: one route from one source's dipole over each of a spread's grounds, the
+    same samples) from its ground's field ``e`` (G, N, 3) at the route's points: the route's EMFs on each ground and
+    its current through the route's canonical coupling (:func:`canonical_coupling`; :func:`_route_current` scales
+    it to each antenna end), both worked over the grounds in one array expression
+    (snrgain.physics.feedline.run_emf_grounds, emf_currents_grounds) rather than ground by ground in
+    :func:`prepare`."""
+    first = keeps[0]
+    route = _route_key(first.fl)
+    if not all(isinstance(k, RouteKeep) for k in keeps) or any(
+        _route_key(k.fl) != route or not (k.x is first.x or np.array_equal(k.x, first.x)) for k in keeps
+    ):
+        for keep, part in zip(keeps, e):
+            keep(part)
+        return
+    fl, x = first.fl, first.x
+    emf, lead = phys.run_emf_grounds(fl, x, e)
+    for g, keep in enumerate(keeps):
+        _memo(keep.key, lambda g=g: (x, emf[g], lead[g]))
+    todo = [g for g, k in enumerate(keeps) if _unit_key(route, k.where) not in _MEMO]
+    if not todo:
+        return
+    units = [
+        phys.Coupling(ln, phys.thevenin_impedance(fl, freq_hz, k.ground), 0j, 1.0 + 0j, 1.0)
+        for k in (keeps[g] for g in todo)
+        for ln in (fl.line(freq_hz, k.ground),)
+    ]
+    currents = phys.emf_currents_grounds(fl, units, x, emf[todo], lead[todo])
+    for g, unit, current in zip(todo, units, currents):
+        _memo(_unit_key(route, keeps[g].where), lambda unit=unit, current=current: (unit, complex(current)))
 
 
 def _points_of(todo) -> tuple[list, list]:

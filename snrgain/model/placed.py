@@ -386,8 +386,7 @@ def fields_ahead(sc, per_ground) -> None:
                     same.append((q, z, [plan]))
             for q, z, plans in same:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
-                for plan, part in zip(plans, e):
-                    _prefetch_keep(plan, part)
+                _prefetch_keep_grounds(plans, e)
 
 
 def _same_bits(a: np.ndarray, b: np.ndarray) -> bool:
@@ -691,6 +690,82 @@ def _prefetch_keep(plan: _Plan, e: np.ndarray) -> None:
         _FIELDS.get(key, lambda part=part: part)
     for (_, _, keep), part in zip(plan.extra, parts[len(todo) + len(compact) :]):
         keep(part)
+
+
+def _prefetch_keep_grounds(plans: list, e: np.ndarray) -> None:
+    """:func:`_prefetch_keep` of each of ``plans`` (one per ground of a spread, their points the same bit for bit) from
+    the field ``e`` (G, N, 3) over their grounds: each wire's EMFs, line transfer and port response
+    (:func:`_wires_keep_grounds`) and each route's EMFs and current (snrgain.model.feedline.keep_routes_grounds)
+    worked over the grounds in one array expression, not ground by ground; plans not made alike (other parts) are
+    kept one by one."""
+    first = plans[0]
+    sizes = [len(q) for q, _ in first.parts()]
+    if len(plans) < 2 or not all(_alike(first, plan, sizes) for plan in plans[1:]):
+        for plan, part in zip(plans, e):
+            _prefetch_keep(plan, part)
+        return
+    from snrgain.model import feedline
+
+    at = np.concatenate([[0], np.cumsum(sizes)])
+    for j in range(len(first.todo)):
+        _wires_keep_grounds(plans, j, e[:, at[j] : at[j + 1]])
+    c0 = len(first.todo)
+    for j in range(len(first.compact)):
+        for plan, part in zip(plans, e[:, at[c0 + j] : at[c0 + j + 1]]):
+            _FIELDS.get(plan.compact[j][0], lambda part=part: part)
+    x0 = c0 + len(first.compact)
+    for j in range(len(first.extra)):
+        keeps = [plan.extra[j][2] for plan in plans]
+        feedline.keep_routes_grounds(keeps, e[:, at[x0 + j] : at[x0 + j + 1]], first.freq_hz)
+
+
+def _alike(first: _Plan, plan: _Plan, sizes: list) -> bool:
+    """Whether ``plan`` holds the same parts as ``first`` (another ground's): the same sizes, the same wires' samples
+    and whether their amplitudes are kept."""
+    if len(plan.todo) != len(first.todo) or len(plan.compact) != len(first.compact):
+        return False
+    if len(plan.extra) != len(first.extra) or [len(q) for q, _ in plan.parts()] != sizes:
+        return False
+    return all(
+        a[6] == b[6] and (a[3] is b[3] or np.array_equal(a[3], b[3])) and len(a[2]) == len(b[2])
+        for a, b in zip(first.todo, plan.todo)
+    )
+
+
+def _wires_keep_grounds(plans: list, j: int, e: np.ndarray) -> None:
+    """The ``j``-th wire of each of ``plans`` (the same wire over each ground) from its ground's field ``e``
+    (G, N, 3) at its points: its EMFs (as :func:`_emfs_from` makes them) and, where they are kept, its amplitudes
+    (as :func:`_prefetch_keep`), each line's transfer over the grounds in one array expression
+    (snrgain.physics.reciprocity.through_line_grounds)."""
+    from snrgain.antennas.longwire import port_response
+    from snrgain.physics.reciprocity import through_line_grounds
+
+    entries = [plan.todo[j] for plan in plans]
+    _, a0, feeds, x, u, _, amplitudes = entries[0]
+    h = a0.wire_height_m()
+    n = len(x) * len(feeds)
+    emf = e[:, :n, 0] * u[0] + e[:, :n, 1] * u[1]  # the points along the wire: the first n
+    lead = None
+    if a0.has_leads and h > 0:
+        _, wq = _lead_rule()  # up each lead: LEAD_POINTS each, feed end first
+        lead = (e[:, n:, 2].reshape(len(e), -1, LEAD_POINTS) @ wq) * h / 2
+    held = [
+        _EMFS.get(key, lambda g=g: (emf[g].reshape(len(feeds), -1), None if lead is None else lead[g]))
+        for g, (key, *_) in enumerate(entries)
+    ]
+    if not amplitudes:
+        return
+    plan = plans[0]
+    src, freq_hz, reference_m, kind = plan.src, plan.freq_hz, plan.reference_m, plan.kind
+    wires = [t[1] for t in entries]
+    emfs = np.concatenate([v[0] for v in held])
+    leads = None if lead is None else np.stack([v[1] for v in held])
+    i_f = through_line_grounds(wires, freq_hz, x, emfs, leads)
+    loads = np.array([w.receiver_load_ohm(freq_hz) for w in wires], dtype=float)
+    amp = port_response(freq_hz, i_f, load_ohm=loads, elevation_rad=np.full(len(wires), src.elevation_rad))
+    for a, plan, v in zip(wires, plans, amp):
+        held_key = _amplitudes_key(a, src, freq_hz, reference_m, plan.ground, None, kind)
+        _AMPLITUDES.get(held_key, lambda a=a, v=v: (a, (complex(v), 0j)))
 
 
 def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, seen: set) -> list:

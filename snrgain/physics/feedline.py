@@ -548,6 +548,20 @@ def runs_emf_from(fls, xs, e) -> list:
     return out
 
 
+def run_emf_grounds(fl: FeedLine, x, e) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`runs_emf_from` of one run over several grounds at once: (the EMF per metre along it (G, len(x)), the
+    EMFs up its two leads (G, 2)) from each ground's field ``e`` (G, N, 3) at :func:`route_points` of the samples
+    ``x`` (each ground's values those :func:`route_emf_from` gives)."""
+    b = fl.bearing_rad
+    n = len(x)
+    emf = e[:, :n, 0] * np.sin(b) + e[:, :n, 1] * np.cos(b)
+    if fl.buried:
+        return emf, np.zeros((len(e), 2), dtype=complex)
+    _, wq = gauss_legendre(LEAD_POINTS)
+    lead = (e[:, n : n + 2 * LEAD_POINTS, 2].reshape(len(e), 2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
+    return emf, lead
+
+
 def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gamma=None, closest_at_m=None):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
@@ -599,6 +613,24 @@ def emf_currents(fls, cs, emfs) -> np.ndarray:
     current = np.add.reduceat(np.concatenate([e for _, e, _ in emfs]) * transfer * weights, starts)
     leads = np.array([lead for _, _, lead in emfs], dtype=complex).reshape(k, 2)
     current = current + leads[:, 0] * transfer[starts] - leads[:, 1] * transfer[starts + sizes - 1]
+    return -current * np.array([c.divider for c in cs], dtype=complex)
+
+
+def emf_currents_grounds(fl: FeedLine, cs, x, emf, lead) -> np.ndarray:
+    """:func:`emf_current` of one run over several grounds (G,): ``cs`` its coupling on each (each its own line),
+    the same samples ``x``, ``emf`` (G, len(x)) and ``lead`` (G, 2) each ground's EMFs (:func:`run_emf_grounds`);
+    the transfer function over the grounds in one array expression, from one complex exponential per sample (as
+    :func:`emf_currents`; equal to rounding)."""
+    L, z_s = fl.length_m, fl.station_ground_ohm
+    g = np.array([c.line.gamma for c in cs], dtype=complex)[:, None]
+    z0 = np.array([c.line.z0 for c in cs], dtype=complex)[:, None]
+    z_a = np.array([c.z_end for c in cs], dtype=complex)[:, None]
+    d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
+    grow = np.exp(g * (L - np.asarray(x, dtype=float))[None, :])
+    transfer = (0.5 * (z0 + z_s) / d) * grow
+    transfer += (0.5 * (z0 - z_s) / d) / grow
+    current = (emf * transfer) @ pairs_rule(x)
+    current += lead[:, 0] * transfer[:, 0] - lead[:, 1] * transfer[:, -1]  # up at the antenna, down at the station
     return -current * np.array([c.divider for c in cs], dtype=complex)
 
 
