@@ -929,6 +929,9 @@ def test_the_sky_gain_with_a_plane_wave_kept_from_another_ground_is_the_one_work
             c = phys.coupling(fl, F, g, rod_ohm=rod, loop_ohm=loop, load_ohm=load)
             want = phys.sky_gain(fl, c, F, az, el, g, phase=phase)
             np.testing.assert_array_equal(phys.sky_gain(fl, c, F, az, el, g, phase=phase, wave=wave), want)
+            # and the run's sky terms (its drive's columns, (jkc)^2, the bearing's factors) kept with the wave
+            terms = phys.sky_terms(fl, F, wave)
+            np.testing.assert_array_equal(phys.sky_gain(fl, c, F, az, el, g, phase=terms, wave=wave), want)
 
 
 def test_the_sky_gain_on_directions_in_elevation_order_is_the_one_on_them_shuffled():

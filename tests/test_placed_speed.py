@@ -366,3 +366,18 @@ def test_a_runs_emfs_and_current_over_several_grounds_at_once_equal_each_grounds
         np.testing.assert_array_equal(lead[g], lead_g)
         want.append(phys.emf_current(fl, c, x_g, emf_g, lead_g))
     np.testing.assert_allclose(phys.emf_currents_grounds(fl, cs, x, emf, lead), want, rtol=1e-12)
+
+
+def test_amplitudes_of_several_antennas_are_each_antennas():
+    # placed.received_amplitudes_of (the key's other parts worked once) holds and reads what received_amplitudes
+    # does, one antenna at a time, to the bit
+    src = _source((60.0, 40.0), 3.0)
+    ants = [from_si("beverage", length=200.0, height=2.0, bearing=b, ground="moist loam") for b in (0.2, 1.4)]
+    ants += [from_si("vertical", height=6.0, ground="moist loam", position=(5.0, 5.0))]
+    ground = ants[0].ground
+    forget()
+    got = placed.received_amplitudes_of(ants, src, F_HZ, (0.0, 0.0), ground, kind="vertical")
+    forget()
+    want = [placed.received_amplitudes(a, src, F_HZ, (0.0, 0.0), ground, kind="vertical") for a in ants]
+    assert got == want
+    assert placed.received_amplitudes_of(ants, src, F_HZ, (0.0, 0.0), ground, kind="vertical") == want  # held

@@ -265,13 +265,12 @@ def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None)
             if own is not None:
                 a = own[src.name, kind][at]
             else:
-                a = np.array(
-                    [
-                        placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0] if c else 0j
-                        for k, c in zip(ks, coherent)
-                    ],
-                    dtype=complex,
-                )
+                a = np.zeros(len(ks), dtype=complex)
+                if coherent.any():
+                    got = placed.received_amplitudes_of(
+                        [antennas[ks[j]] for j in np.flatnonzero(coherent)], src, f, ref_m, ground, kind=kind
+                    )
+                    a[coherent] = [v for v, _ in got]
             d[at] += np.where(coherent, np.abs(a + b) ** 2 - np.abs(a) ** 2, power)
         fl_powers[src.name], effects[src.name] = p, d
     lines_ = {k: (fl, c) for k, (fl, c, _) in out.items()}
@@ -396,11 +395,7 @@ def keep_routes_grounds(keeps, e: np.ndarray, freq_hz: float) -> None:
     todo = [g for g, k in enumerate(keeps) if _unit_key(route, k.where) not in _MEMO]
     if not todo:
         return
-    units = [
-        phys.Coupling(ln, phys.thevenin_impedance(fl, freq_hz, k.ground), 0j, 1.0 + 0j, 1.0)
-        for k in (keeps[g] for g in todo)
-        for ln in (fl.line(freq_hz, k.ground),)
-    ]
+    units = [_canonical_unit(fl, route, freq_hz, keeps[g].ground) for g in todo]
     currents = phys.emf_currents_grounds(fl, units, x, emf[todo], lead[todo])
     for g, unit, current in zip(todo, units, currents):
         _memo(_unit_key(route, keeps[g].where), lambda unit=unit, current=current: (unit, complex(current)))
@@ -456,6 +451,17 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
     # route_emf takes the field once, at route_points of the same samples: each route's part, worked together
     for (key, _, _), emfs in zip(todo, phys.runs_emf_from(fls, xs, e)):
         _memo(key, lambda emfs=emfs: emfs)
+
+
+def _canonical_unit(fl, route: tuple, freq_hz: float, ground) -> phys.Coupling:
+    """The route's canonical coupling on ``ground`` (:func:`canonical_coupling`: its line and Z_th, the antenna end
+    shorted), kept by route, ground and frequency (every placed source asks for it again)."""
+    g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
+
+    def make():
+        return phys.Coupling(fl.line(freq_hz, ground), phys.thevenin_impedance(fl, freq_hz, ground), 0j, 1.0 + 0j, 1.0)
+
+    return _memo(("canonical", route, g, float(freq_hz)), make)
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
@@ -628,10 +634,8 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
     key = ("sky", _route_key(fl), g, *where)
 
     def make():
-        jkc, phase_l, wave = _PHASES.get(
-            (fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground)
-        )
-        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=(jkc, phase_l), wave=wave)
+        terms, wave = _PHASES.get((fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground))
+        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=terms, wave=wave)
 
     return _memo(key, make)
 
@@ -653,17 +657,17 @@ _DIRECTIONS = Memo(64)
 
 
 _PHASES = Memo(64, max_bytes=64 * 2**20)
-"""A run's :func:`snrgain.physics.feedline.sky_phase` on a set of directions and the plane wave it was worked from
+"""A run's :func:`snrgain.physics.feedline.sky_terms` on a set of directions and the plane wave they were worked from
 (what of it does not depend on the ground), by its ends, the frequency and the directions: the same over every
 ground (a spread's nodes) and cable."""
 
 
 def _sky_phase(fl, freq_hz, az, el, ground) -> tuple:
-    """(j k c, e^{j k c L}, the plane wave) of a run (:data:`_PHASES`)."""
+    """(the run's snrgain.physics.feedline.sky_terms, the plane wave) (:data:`_PHASES`)."""
     from snrgain.antennas.longwire import plane_wave
 
     wave = plane_wave(freq_hz, az, el, bearing_rad=fl.bearing_rad, ground=ground)
-    return (*phys.sky_phase(fl, freq_hz, wave), wave)
+    return phys.sky_terms(fl, freq_hz, wave), wave
 
 
 def no_pickup(prep: Prepared) -> dict:

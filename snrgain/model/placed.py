@@ -1140,10 +1140,27 @@ def received_amplitudes(
     return held[1]
 
 
+def received_amplitudes_of(antennas, src, freq_hz: float, reference_m, ground, *, kind) -> list:
+    """:func:`received_amplitudes` of each of ``antennas`` from one of a placed source's dipoles (at their own
+    places), the key's parts other than the antenna worked once (a pass of the products asks for every antenna's)."""
+    tail = _amplitudes_tail(src, freq_hz, reference_m, ground, None, kind)
+    return [
+        _AMPLITUDES.get(
+            (id(a), *tail),
+            lambda a=a: (a, _received_amplitudes(a, src, freq_hz, reference_m, ground, at_m=None, kind=kind)),
+        )[1]
+        for a in antennas
+    ]
+
+
 def _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind) -> tuple:
     """:data:`_AMPLITUDES`' key: the antenna object and the rest of what enters its amplitudes."""
+    return (id(antenna), *_amplitudes_tail(src, freq_hz, reference_m, ground, at_m, kind))
+
+
+def _amplitudes_tail(src, freq_hz, reference_m, ground, at_m, kind) -> tuple:
+    """:func:`_amplitudes_key` but the antenna."""
     return (
-        id(antenna),
         field_vector,  # the function itself (a test may put another in its place)
         _source_key(src, kind),
         float(src.elevation_rad),
@@ -1295,8 +1312,12 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         if keys is None:
             keys = _variant_keys(antennas, sc.freq_hz, ref_m)
         _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p, keys)
-        for k in np.flatnonzero(~np.isfinite(p)):
-            p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
+        todo = np.flatnonzero(~np.isfinite(p))
+        if len(todo):  # received_power of each, the dipoles' powers added
+            p[todo] = 0.0
+            for kind, _ in dipoles(src):
+                got = received_amplitudes_of([antennas[k] for k in todo], src, sc.freq_hz, ref_m, ground, kind=kind)
+                p[todo] += [abs(a_v) ** 2 + abs(a_h) ** 2 for a_v, a_h in got]
         if not p[0] > 0:
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
         scale = p / p[0]
