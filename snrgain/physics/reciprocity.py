@@ -248,6 +248,35 @@ def through_line_grids(wire, freq_hz, parts) -> list[np.ndarray]:
     return out
 
 
+def through_line_grounds(wires, freq_hz, x, emf, lead) -> np.ndarray:
+    """:func:`through_line` of one wire standing over several grounds (``wires``: one per ground, each with its own
+    line and loads; one feed each, the same samples ``x``): (G,) feed currents from each ground's EMFs ``emf``
+    (G, len(x)) and ``lead`` (G, 2) or None.  The transfer functions over the grounds in one array expression (the
+    same values as :func:`through_line`'s), each ground's sum its own (equal to rounding)."""
+    far = [w.far_load_ohm(freq_hz) for w in wires]
+    if any(z is None for z in far) and not all(z is None for z in far):  # open on some grounds only: one by one
+        return np.array([through_line(w, freq_hz, x, e[None], d) for w, e, d in zip(wires, emf, lead)]).reshape(-1)
+    x = np.asarray(x, dtype=float)
+    L = wires[0].length_m
+    lines_ = [w.line(freq_hz) for w in wires]
+    g = np.array([complex(ln.gamma) for ln in lines_])[:, None]
+    z0 = np.array([complex(ln.z0) for ln in lines_])[:, None]
+    z_feed = np.array([complex(w.feed_load_ohm(freq_hz)) for w in wires])[:, None]
+    rest = g * (L - x)[None, :]
+    if far[0] is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
+        transfer = np.sinh(rest) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
+    else:
+        z_far = np.array([complex(z) for z in far])[:, None]
+        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
+        transfer = (z0 * np.cosh(rest) + z_far * np.sinh(rest)) / d
+    current = np.einsum("gn,gn->g", emf, transfer * samples_rule(x)[None, :])
+    if lead is not None:
+        current += lead[:, 0] * transfer[:, 0]  # up the feed lead
+        if far[0] is not None:
+            current -= lead[:, 1] * transfer[:, -1]  # down the far lead
+    return current * np.array([complex(w.feed_current_ratio(freq_hz)) for w in wires])
+
+
 def through_lines(wires, freq_hz, x, emf, lead) -> np.ndarray:
     """:func:`through_line` of several wires at one place (one feed each) that share their line, length, samples
     and EMFs and differ only in their loads (a termination search's resistors, a transformer's ratio): (W,) feed
