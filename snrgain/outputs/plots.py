@@ -190,7 +190,7 @@ def blank_steps(kinds):
             yield
     for _, axes in made:
         for ax in axes:
-            for axis in ax._axis_map.values():
+            for axis in (ax.xaxis, ax.yaxis):
                 axis.get_major_ticks(TICKS_AHEAD)
         yield
 
