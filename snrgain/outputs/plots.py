@@ -190,7 +190,7 @@ def blank_steps(kinds):
             yield
     for _, axes in made:
         for ax in axes:
-            for axis in ax._axis_map.values():
+            for axis in (ax.xaxis, ax.yaxis):
                 axis.get_major_ticks(TICKS_AHEAD)
         yield
 
@@ -837,8 +837,11 @@ def ranking_chart(results, *, ax=None):
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
     lo_x, hi_x = axes[2].get_xlim()
     axes[2].set_xlim(lo_x, hi_x + 0.15 * (hi_x - lo_x))  # room for the values beside the bars
-    for yi, v in zip(y, margin):
-        axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
+    short = [  # the values below the target, whose labels may run over its line: placed beyond it if they do (below)
+        (axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8), v < target)
+        for yi, v in zip(y, margin)
+    ]
+    short = [t for t, below in short if below]
     axes[2].set_xlabel("margin over the chain's floor (dB)")
     axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10, y=1.0)
     for ax in axes:
@@ -852,7 +855,23 @@ def ranking_chart(results, *, ax=None):
     # value stands: the band is the legends' measured height, now that the panels' size is known
     legends = [axes[0].legend(fontsize=8, loc="upper left"), axes[2].legend(fontsize=8, loc="upper right")]
     _headroom(fig, axes[0], legends)
+    _clear_of_line(fig, axes[2], short, target)
     return fig
+
+
+def _clear_of_line(fig, ax, labels, x: float) -> None:
+    """Move each of ``labels`` (texts left-aligned at a bar's end, left of ``x``) that would touch or cross the
+    vertical line at ``x`` [data] to start at the line instead (its leading space the gap); measured, not drawn, now
+    that the panel's size is known."""
+    if not labels:
+        return
+    renderer = _measurer(fig)
+    line = ax.transData.transform((x, 0.0))[0]
+    gap = 1.0 * fig.dpi / 72.0  # a point clear of the line
+    for t in labels:
+        box = t.get_window_extent(renderer)
+        if box.x1 + gap > line:
+            t.set_x(x)
 
 
 def _headroom(fig, ax, legends) -> None:
