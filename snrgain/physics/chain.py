@@ -26,16 +26,15 @@ dielectric loss, textbook forms).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from noisemodels.p372 import T0_K
 from snrgain.physics.ground import C_M_PER_S, MU0_H_PER_M
+from snrgain.records import record
 from snrgain.units import FT_PER_M
 
 
-@dataclass(frozen=True)
+@record
 class Cable:
     """A coaxial cable type: impedance and loss coefficients (dB per 100 ft = k1 sqrt(f) + k2 f, f in MHz)."""
 
@@ -107,7 +106,7 @@ def coax_loss_from_geometry(
     return alpha * 20 / np.log(10), z0
 
 
-@dataclass(frozen=True)
+@record
 class Stage:
     """One stage of the chain: power gain (linear) and noise factor (linear)."""
 
@@ -146,7 +145,7 @@ def system_noise_factor(fa, *, lc=1.0, lt=1.0, fr):
     return fa + (lc - 1) + lc * (lt - 1) + lc * lt * (fr - 1)
 
 
-@dataclass(frozen=True)
+@record
 class Chain:
     """The stages and what follows from them, referred to the antenna terminals."""
 
@@ -261,7 +260,7 @@ def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
     return Chain(tuple(st), idx, chain.cable)
 
 
-@dataclass(frozen=True)
+@record
 class NoiseBudget:
     """One antenna's noise through its chain, per month and hour (arrays (months, hours)).
 
