@@ -135,3 +135,49 @@ def test_antenna_chain_errors_name_the_antenna(minimal_text):
     )
     with pytest.raises(ScenarioError, match=r"candidate 2 \(\"x\"\)\.chain\.feedline"):
         load(bad)
+
+
+def _gain_written_out(ch, t_a: float, margin_db: float):
+    """Chain.preamp_gain_for_margin's steps written out for each call (as before its chain-only terms were kept)."""
+    need_f = t_a / (290.0 * 10 ** (margin_db / 10))
+    if ch.with_preamp_gain(0.0).noise_factor <= need_f:
+        return 0.0
+    before, after = list(ch.stages[: ch.preamp_index]), list(ch.stages[ch.preamp_index + 1 :])
+    f_b, g_b = chain.friis(before) if before else (1.0, 1.0)
+    f_a = chain.friis(after)[0] if after else 1.0
+    f_p = ch.stages[ch.preamp_index].noise_factor
+    floor = (f_b if before else f_p) + ((f_p - 1) / g_b if before else 0.0)
+    denom = g_b * (need_f - floor)
+    if denom <= 0:
+        return None
+    g_p = (f_a - 1) / denom
+    return float(max(10 * np.log10(g_p), 0.0)) if g_p > 0 else 0.0
+
+
+def test_noise_budget_preamp_advice_equals_the_steps_per_cell():
+    """noise_budget works a chain's terms once for every month and hour: the same gains and positions to the bit as
+    each cell's own steps."""
+    assert chain.T0_K == 290.0
+    rx = chain.amplifier("rx", gain_db=0, noise_figure_db=15)
+    own = chain.amplifier("pre", gain_db=10, noise_figure_db=4)
+    chains = [
+        chain.Chain((chain.passive("transformer", 0.5), chain.passive("cable", 3.0), rx)),
+        chain.Chain((chain.passive("transformer", 0.5), chain.passive("cable", 12.0), rx)),  # a lossy feed line
+        chain.Chain((chain.passive("transformer", 0.5), own, chain.passive("cable", 3.0), rx), preamp_index=1),
+        chain.Chain((own, rx), preamp_index=0),
+    ]
+    t_a = 290 * 10 ** (np.linspace(-5.0, 45.0, 24) / 10).reshape(4, 6)
+    for ch in chains:
+        for margin in (3.0, 10.0, 25.0):
+            budget = chain.noise_budget(ch, t_a, bandwidth_hz=500.0, margin_target_db=margin)
+            cells, where = [], set()
+            for t in t_a.ravel():
+                tries = [(ch, "as placed")] if ch.preamp_index is not None else []
+                tries = tries or [(chain.with_suggested_preamp(ch, p), p) for p in ("receiver", "antenna")]
+                g = next(((g, p) for c, p in tries if (g := _gain_written_out(c, float(t), margin)) is not None), None)
+                cells.append(np.nan if g is None else g[0])
+                where |= {g[1]} if g else set()
+            assert np.array_equal(budget.preamp_gain_needed_db.ravel(), np.array(cells), equal_nan=True)
+            assert budget.preamp_position == (sorted(where)[-1] if where else None)
+            one = chain.preamp_advice(ch, float(t_a.ravel()[8]), margin)[0]
+            assert one == cells[8] or (np.isnan(one) and np.isnan(cells[8]))

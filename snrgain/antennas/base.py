@@ -13,7 +13,6 @@ Inside, gains are linear and directions are in radians; the public
 from __future__ import annotations
 
 from abc import ABC, abstractmethod
-from dataclasses import dataclass
 from typing import Any, ClassVar
 
 import numpy as np
@@ -21,6 +20,7 @@ from pydantic import ValidationError
 
 from snrgain.errors import SpecError
 from snrgain.fields import SI_CONTEXT, PlanPoint, StrictModel
+from snrgain.records import record
 
 
 class AntennaParams(StrictModel):
@@ -198,7 +198,7 @@ def above_horizon(elevation_rad) -> np.ndarray:
     return np.asarray(elevation_rad) >= 0.0
 
 
-@dataclass(frozen=True)
+@record
 class Family:
     """A registered antenna family."""
 

@@ -7,9 +7,10 @@ and every design of a sweep); the few sets last used are kept (:func:`direction_
 from __future__ import annotations
 
 from collections import OrderedDict
-from dataclasses import dataclass
 
 import numpy as np
+
+from snrgain.records import record
 
 
 def distinct(values) -> tuple[np.ndarray, np.ndarray]:
@@ -25,7 +26,7 @@ def distinct(values) -> tuple[np.ndarray, np.ndarray]:
     return u, inv.ravel()
 
 
-@dataclass(frozen=True)
+@record
 class Geometry:
     """What a set of directions gives every antenna: distinct elevations, cos and sin of the azimuths."""
 

@@ -76,7 +76,6 @@ PyNEC) is the independent check in the tests.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from typing import Literal, NamedTuple
 
 import numpy as np
@@ -98,6 +97,7 @@ from snrgain.fields import (
 from snrgain.memo import Memo
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients, rod_resistance_ohm
+from snrgain.records import record
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
 
@@ -387,7 +387,7 @@ def safe_expint(z, length):
     return out / z
 
 
-@dataclass(frozen=True)
+@record
 class PlaneWave:
     """A unit plane wave from (azimuth, elevation) seen by a wire of bearing b over a ground.
 

@@ -34,10 +34,12 @@ in :attr:`Plan.antennas` by its group; the services name the state that serves e
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from itertools import combinations
 
 import numpy as np
+
+from snrgain.records import record
 
 EXACT_LIMIT = 12
 """Up to this many candidates every set is tried; beyond, the set is chosen greedily."""
@@ -45,7 +47,7 @@ MIN_ADDED_DB = 0.1
 """An antenna that adds less than this to the plan's worth is not worth building [dB]."""
 
 
-@dataclass(frozen=True)
+@record
 class Service:
     """One antenna serving a target over the target's months and hours."""
 
@@ -63,7 +65,7 @@ TIE_DB = 1e-9
 ranking (snrgain.model.results.rank_for_target) keeps them in the scenario's order."""
 
 
-@dataclass(frozen=True)
+@record
 class Plan:
     """The antennas to build (in order), the dB each adds, the plan's worth, and who serves which target."""
 

@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 from snrgain.model.results import SCHEMA_VERSION, Results, jsonable
+from snrgain.records import record
 
 
-@dataclass(frozen=True)
+@record
 class BandResults:
     """``bands``: (band name, that band's Results) in the file's order; ``plan``: which antennas to build for
     every band together (:func:`snrgain.decide.bandplan.plan_across_bands`), ``columns`` naming its targets as

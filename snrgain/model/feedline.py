@@ -23,12 +23,12 @@ a ``feed-line-ground-assumed`` notice names an antenna whose ground there is snr
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 import numpy as np
 
 from snrgain.memo import Memo
 from snrgain.physics import feedline as phys
+from snrgain.records import record
 
 COST_WARNING_DB = 1.0
 """A feed line that costs more SNR gain than this [dB] is named in a notice."""
@@ -44,7 +44,7 @@ CAUTIONS = (
 )
 
 
-@dataclass(frozen=True)
+@record
 class Prepared:
     """The feed lines of a set of antennas at one frequency: ``lines`` k -> (FeedLine, Coupling) for the antennas
     that have one; per placed source name -> (antennas,): ``powers`` the power each feed line delivers from it
@@ -59,7 +59,7 @@ class Prepared:
     ground: object
 
 
-@dataclass(frozen=True)
+@record
 class FeedLineTemps:
     """What the feed lines add (components, antennas, months, hours) [K], zero for antennas without one:
     ``by_component`` the feed line's own pickup (its share of the noise; what a choke lowers), ``effect`` what it

@@ -13,10 +13,11 @@ xarray and pandas are imported here, not by ``import snrgain``: only a caller of
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
+
+from snrgain.records import record
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -105,7 +106,7 @@ DESCRIPTIONS: dict[str, str] = {
 }
 
 
-@dataclass(frozen=True)
+@record
 class Labelled:
     """The labelled arrays of a Results, in numpy only: what :func:`to_xarray` wraps into a Dataset.
 

@@ -6,11 +6,13 @@ edge (:mod:`snrgain.outputs.messages`) both import it and neither imports the ot
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
+from snrgain.records import record
 
-@dataclass(frozen=True)
+
+@record
 class Notice:
     """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
 

@@ -6,7 +6,7 @@ reference and the one statistic every decision uses (:func:`target_statistic`), 
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass, field
+from dataclasses import field
 
 import numpy as np
 
@@ -16,12 +16,13 @@ from snrgain.model.results import AntennaResult
 from snrgain.model.spread import SnrSpread, over_hours_rows
 from snrgain.physics import chain as chainmod
 from snrgain.physics.receiver import power_dbm
+from snrgain.records import record
 from snrgain.scenario import Scenario
 from snrgain.scenario.switched import switched_state
 from snrgain.sky import noise as noisemod
 
 
-@dataclass(frozen=True)
+@record
 class Products:
     """The nominal products of a set of antennas under one sky: the antennas ([reference, *candidates]), their
     gains, their temperatures from every component, the powers they take from each placed source (name -> array)

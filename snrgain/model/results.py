@@ -10,19 +10,20 @@ sentences are written at the edge, :mod:`snrgain.outputs.messages`; the class li
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 import numpy as np
 
 from snrgain.decide.plan import TIE_DB
 from snrgain.model.notices import Notice  # re-exported: the documented path snrgain.model.results.Notice
+from snrgain.records import record
 from snrgain.sky.noise import SkySeries
 
 SCHEMA_VERSION = "3"
 
 
-@dataclass(frozen=True)
+@record
 class AntennaResult:
     """Numbers for one antenna.  Array axes: [target, month, hour] or [month, hour].
 
@@ -89,7 +90,7 @@ class AntennaResult:
         return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
 
 
-@dataclass(frozen=True)
+@record
 class TargetResult:
     """One target's answer: the candidates ranked by median SNR gain toward it, the best and its margin."""
 
@@ -103,7 +104,7 @@ class TargetResult:
     """The best's median SNR gain minus the runner-up's [dB]."""
 
 
-@dataclass(frozen=True)
+@record
 class PatternCuts:
     """Total gain [dBi] on an azimuth cut at each target's mean elevation and on an elevation cut toward each
     target's bearing: antenna name -> array (targets, cut points)."""
@@ -114,7 +115,7 @@ class PatternCuts:
     elevation: dict[str, np.ndarray]
 
 
-@dataclass(frozen=True, repr=False)
+@record(repr=False)
 class Results:
     """Everything ``evaluate`` computed.  ``candidates`` are in the scenario's order; ``target_results`` rank them
     per target; ``plan`` says which to build."""

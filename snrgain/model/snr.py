@@ -22,13 +22,12 @@ Definitions used throughout (DESIGN.md, "SNR"):
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from noisemodels.sky import SkyComponent, weighted_temperature_k
 from noisemodels.sphere import Directions
 from snrgain.memo import Memo
+from snrgain.records import record
 
 
 def hemisphere_mean_gain(gain_on_grid, grid: Directions) -> float:
@@ -89,7 +88,7 @@ def snr_gain_db(signal_a, noise_a, signal_r, noise_r):
 # -- the integrator's steps over a whole scenario --------------------------------------------------------------
 
 
-@dataclass(frozen=True)
+@record
 class Gains:
     """Every antenna's gains: a cache per antenna for any sky sample set, toward each target, and averaged.
 
@@ -118,7 +117,7 @@ def antenna_gains(antennas, freq_hz: float, grid: Directions, targets) -> Gains:
     return Gains(caches, toward, mean)
 
 
-@dataclass(frozen=True)
+@record
 class Temperatures:
     """Antenna temperatures [K] from the sky: ``by_component`` (components, antennas, months, hours), ``total`` its
     sum over components (antennas, months, hours)."""

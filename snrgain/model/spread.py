@@ -28,12 +28,11 @@ tables, arrays of elements and NEC wire structures keep their nominal ground.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from snrgain.antennas.base import variant
 from snrgain.physics.ground import Ground, GroundSpread
+from snrgain.records import record
 
 Z90 = 1.2815515655446004
 """The standard normal's 90 % point: a decile deviation is Z90 standard deviations."""
@@ -42,7 +41,7 @@ _GH3 = ((-np.sqrt(3.0), 1.0 / 6.0), (0.0, 2.0 / 3.0), (np.sqrt(3.0), 1.0 / 6.0))
 """Three-point Gauss-Hermite rule for a standard normal variable: (node, weight)."""
 
 
-@dataclass(frozen=True)
+@record
 class SnrSpread:
     """Per antenna and target (arrays (antennas, targets)): the SNR gain's median, 10 % and 90 % points [dB], and
     the probability [-] that it reaches ``beat_by_db`` over the reference."""
@@ -294,7 +293,7 @@ def sorted_runs(noises, masks, hours: bool) -> dict[bytes, list[np.ndarray]]:
     return out
 
 
-@dataclass(frozen=True)
+@record
 class Size:
     """What a scenario's evaluation will cost, estimated before any work from its dimensions."""
 
@@ -339,7 +338,7 @@ def size(sc) -> Size:
     return Size(ants, nodes, draws, comps, cells, pixels, noise, sky, int(memory))
 
 
-@dataclass(frozen=True)
+@record
 class Histogram:
     """Weighted samples [dB] on bins of STEP_DB: bin k holds the weight of the values nearest ``(start + k) *
     STEP_DB``.  A constant added to every sample is a shift of whole bins, so the histograms of one antenna's

@@ -18,9 +18,9 @@ reference first), as :meth:`snrgain.model.results.Results.to_xarray` lists them.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
+
+from snrgain.records import record
 
 REFERENCE_COLOR = "#000000"
 TOL_MUTED = (
@@ -52,7 +52,7 @@ TARGET_MARKERS = ("*", "d", "H", ">", "<", "1", "2", "3")
 SOURCE_MARKER = {"marker": "X", "color": "black", "markeredgecolor": "white", "markeredgewidth": 1.0, "ms": 11}
 
 
-@dataclass(frozen=True)
+@record
 class Look:
     """How one antenna is drawn: colour, line style and marker (its family's), line width."""
 
@@ -66,7 +66,7 @@ class Look:
         return {"color": self.color, "ls": self.linestyle, "lw": self.linewidth}
 
 
-@dataclass(frozen=True)
+@record
 class TargetLook:
     """How one target is drawn: a hatch pattern and a hollow marker, in black and white."""
 

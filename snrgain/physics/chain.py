@@ -26,16 +26,15 @@ dielectric loss, textbook forms).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from noisemodels.p372 import T0_K
 from snrgain.physics.ground import C_M_PER_S, MU0_H_PER_M
+from snrgain.records import record
 from snrgain.units import FT_PER_M
 
 
-@dataclass(frozen=True)
+@record
 class Cable:
     """A coaxial cable type: impedance and loss coefficients (dB per 100 ft = k1 sqrt(f) + k2 f, f in MHz)."""
 
@@ -107,7 +106,7 @@ def coax_loss_from_geometry(
     return alpha * 20 / np.log(10), z0
 
 
-@dataclass(frozen=True)
+@record
 class Stage:
     """One stage of the chain: power gain (linear) and noise factor (linear)."""
 
@@ -146,7 +145,7 @@ def system_noise_factor(fa, *, lc=1.0, lt=1.0, fr):
     return fa + (lc - 1) + lc * (lt - 1) + lc * lt * (fr - 1)
 
 
-@dataclass(frozen=True)
+@record
 class Chain:
     """The stages and what follows from them, referred to the antenna terminals."""
 
@@ -182,22 +181,34 @@ class Chain:
         The margin is the external noise over the chain's floor, both at the antenna terminals.  If the
         chain already meets it, 0 dB.  F decreases with the preamp gain toward F_before + (F_p - 1)/G_before.
         """
-        if self.preamp_index is None:
-            raise ValueError("the chain has no preamplifier")
+        return _preamp_rule(self)(antenna_temperature_k, margin_db)
+
+
+def _preamp_rule(chain: Chain):
+    """rule(T_A, margin_db) -> :meth:`Chain.preamp_gain_for_margin`: what depends on the chain alone (its noise
+    factor at 0 dB of preamplifier gain, the floor the gain tends to, the stages' gains and factors around the
+    preamplifier) worked once, for a noise budget's every month and hour; the same steps in the same order."""
+    if chain.preamp_index is None:
+        raise ValueError("the chain has no preamplifier")
+    f_zero = chain.with_preamp_gain(0.0).noise_factor
+    before = list(chain.stages[: chain.preamp_index])
+    after = list(chain.stages[chain.preamp_index + 1 :])
+    f_b, g_b = friis(before) if before else (1.0, 1.0)
+    f_a = friis(after)[0] if after else 1.0
+    f_p = chain.stages[chain.preamp_index].noise_factor
+    floor = (f_b if before else f_p) + ((f_p - 1) / g_b if before else 0.0)
+
+    def rule(antenna_temperature_k: float, margin_db: float) -> float | None:
         need_f = antenna_temperature_k / (T0_K * 10 ** (margin_db / 10))
-        if self.with_preamp_gain(0.0).noise_factor <= need_f:
+        if f_zero <= need_f:
             return 0.0
-        before = list(self.stages[: self.preamp_index])
-        after = list(self.stages[self.preamp_index + 1 :])
-        f_b, g_b = friis(before) if before else (1.0, 1.0)
-        f_a = friis(after)[0] if after else 1.0
-        f_p = self.stages[self.preamp_index].noise_factor
-        floor = (f_b if before else f_p) + ((f_p - 1) / g_b if before else 0.0)
         denom = g_b * (need_f - floor)
         if denom <= 0:
             return None
         g_p = (f_a - 1) / denom
         return float(max(10 * np.log10(g_p), 0.0)) if g_p > 0 else 0.0
+
+    return rule
 
 
 SUGGESTED_PREAMP_NOISE_FIGURE_DB = 3.0
@@ -211,14 +222,30 @@ def preamp_advice(chain: Chain, antenna_temperature_k: float, margin_db: float) 
     The chain's own preamplifier if it has one; else a suggested one before the receiver, or, where no gain
     there can do it (a lossy feed line ahead), right after the transformer.  (NaN, None) if none can.
     """
+    return _preamp_advisor(chain)(antenna_temperature_k, margin_db)
+
+
+def _preamp_advisor(chain: Chain):
+    """advice(T_A, margin_db) -> :func:`preamp_advice`, the chains it tries made once (a noise budget asks for every
+    month and hour)."""
     if chain.preamp_index is not None:
-        g = chain.preamp_gain_for_margin(antenna_temperature_k, margin_db)
-        return (np.nan, None) if g is None else (g, "as placed")
-    for position in ("receiver", "antenna"):
-        g = with_suggested_preamp(chain, position).preamp_gain_for_margin(antenna_temperature_k, margin_db)
-        if g is not None:
-            return g, position
-    return np.nan, None
+        own = _preamp_rule(chain)
+
+        def as_placed(antenna_temperature_k: float, margin_db: float) -> tuple[float, str | None]:
+            g = own(antenna_temperature_k, margin_db)
+            return (np.nan, None) if g is None else (g, "as placed")
+
+        return as_placed
+    rules = [(position, _preamp_rule(with_suggested_preamp(chain, position))) for position in ("receiver", "antenna")]
+
+    def suggested(antenna_temperature_k: float, margin_db: float) -> tuple[float, str | None]:
+        for position, rule in rules:
+            g = rule(antenna_temperature_k, margin_db)
+            if g is not None:
+                return g, position
+        return np.nan, None
+
+    return suggested
 
 
 def cascade(
@@ -261,7 +288,7 @@ def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
     return Chain(tuple(st), idx, chain.cable)
 
 
-@dataclass(frozen=True)
+@record
 class NoiseBudget:
     """One antenna's noise through its chain, per month and hour (arrays (months, hours)).
 
@@ -291,7 +318,8 @@ def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, ma
     with np.errstate(divide="ignore"):
         noise = power_dbm(t_a, bandwidth_hz=bandwidth_hz) + gain_db
         loss = 10.0 * np.log10((t_a + chain.temperature_k) / t_a)
-    advice = [preamp_advice(chain, float(t), margin_target_db) for t in t_a.ravel()]
+    advise = _preamp_advisor(chain)
+    advice = [advise(float(t), margin_target_db) for t in t_a.ravel()]
     needed = np.array([a[0] for a in advice], dtype=float).reshape(t_a.shape)
     where = sorted({a[1] for a in advice if a[1]})
     return NoiseBudget(noise, floor, noise - floor, loss, needed, where[-1] if where else None)

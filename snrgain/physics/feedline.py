@@ -89,7 +89,7 @@ earth without passing the input).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import numpy as np
 
@@ -97,6 +97,7 @@ from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 from snrgain.physics.quadrature import even_samples, gauss_legendre
 from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
+from snrgain.records import record
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -119,7 +120,7 @@ _LINES: dict = {}
 """Shield line constants already solved, by geometry, frequency and soil."""
 
 
-@dataclass(frozen=True)
+@record
 class FeedLine:
     """A feed line's run and its connections, SI.
 
@@ -219,7 +220,7 @@ class FeedLine:
         return lines.overhead_wire(freq_hz, radius_m=self.jacket_radius_m, height_m=self.height_m, ground=ground)
 
 
-@dataclass(frozen=True)
+@record
 class End:
     """What the shield meets at the antenna end, past its isolation: ``z_cm`` the antenna end's common-mode
     impedance to earth [ohm], ``divider`` the share of the shield's current I_A that runs through the receiver's
@@ -269,7 +270,7 @@ def floating_end(freq_hz: float, capacitance_f, *, other_ohm: complex, load_ohm:
     return End(complex(v[0]), complex((v[0] - v[1]) / z_l), float(np.real(z_l)), None, coherent=False)
 
 
-@dataclass(frozen=True)
+@record
 class Coupling:
     """The circuit at the antenna end at one frequency: the shield's line, Z_th (its input impedance toward the
     station), Z_A (the antenna end's load: the isolation in series with the end's Z_cm), the share of I_A through

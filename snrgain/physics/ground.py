@@ -6,15 +6,14 @@ of conductivity sigma is eps_c = eps_r - j sigma / (omega eps0).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 # The physical constants' one source (SI), re-exported here under the names the antenna models import.
 from noisemodels.constants import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M  # noqa: F401
+from snrgain.records import record
 
 
-@dataclass(frozen=True)
+@record
 class Ground:
     """Electrical constants of a homogeneous ground.
 
@@ -67,7 +66,7 @@ others are soils described in snrgain's own words with their constants stated (m
 permittivity 13, is the default).  Numeric constants remain the main form."""
 
 
-@dataclass(frozen=True)
+@record
 class GroundSpread:
     """How uncertain a ground's constants are: the 10 % and 90 % points of its conductivity [S/m] and relative
     permittivity [-], each taken as log-normal (its median is the geometric mean of the two points)."""

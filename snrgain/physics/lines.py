@@ -55,13 +55,13 @@ Users can override velocity factor, attenuation and Z0 with measured values
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
 
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, MU0_H_PER_M, Ground
+from snrgain.records import record
 from snrgain.units import FT_PER_M
 
 COPPER_S_PER_M = 5.8e7
@@ -69,7 +69,7 @@ COPPER_S_PER_M = 5.8e7
 NP_TO_DB = 20.0 / np.log(10.0)
 
 
-@dataclass(frozen=True)
+@record
 class LineConstants:
     """Per-metre constants of a line and what follows from them.
 

@@ -10,11 +10,10 @@ line, transformer, preamplifier) is cascaded in snrgain.physics.chain.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from noisemodels.p372 import BOLTZMANN_J_PER_K, T0_K
+from snrgain.records import record
 
 DEFAULT_NOISE_FIGURE_DB = 15.0
 """Receiver noise figure when none is given [dB]: typical of HF receivers on 160 m with the preamplifier off
@@ -24,7 +23,7 @@ DEFAULT_MARGIN_TARGET_DB = 10.0
 (common practice)."""
 
 
-@dataclass(frozen=True)
+@record
 class Receiver:
     """The receiver: its noise figure and the margin of external noise over the chain's floor that is wanted."""
 

@@ -58,13 +58,12 @@ surface wave's radial E) is left out.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM
 from snrgain.physics.quadrature import gauss_legendre
+from snrgain.records import record
 
 MAX_TX_HEIGHT_WAVELENGTHS = 0.3
 """The induced-EMF model of the vertical's current holds to about 0.3 wavelength (coupling.py)."""
@@ -80,7 +79,7 @@ RESONANT_LOAD_OHM = 50.0
 """The transmitter's feed seen from the vertical's base when it is connected (a 50 ohm system)."""
 
 
-@dataclass(frozen=True)
+@record
 class TxVertical:
     """The transmitting vertical as a scatterer: ``vertical`` an antenna of the vertical family (its height, top
     loading, radial loss and ground), where it stands [m east, m north], its radius [m] and its base load [ohm]

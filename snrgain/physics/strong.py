@@ -49,13 +49,13 @@ by 2 or 3 dB).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from itertools import combinations
 
 import numpy as np
 
 from noisemodels.groundwave import dipole_field
 from snrgain.physics.ground import C_M_PER_S, Ground, reflection_coefficients
+from snrgain.records import record
 
 CYMOMOTIVE_V_PER_SQRT_KW = 300.0
 """Field at 1 m (far-field form) of a short vertical monopole over perfect ground radiating 1 kW [V] (ITU-R
@@ -70,7 +70,7 @@ IN_BAND_SPAN_HZ = 100e3
 choice: about the width of a low band's busy part)."""
 
 
-@dataclass(frozen=True)
+@record
 class StageLimits:
     """The first active stage's large-signal limits, input-referred [dBm]; ``assumed`` names the values that are
     snrgain's defaults, not the user's."""
@@ -90,7 +90,7 @@ RECEIVER_DEFAULTS = {"p1db_dbm": 5.0, "iip3_dbm": 20.0, "iip2_dbm": 60.0}
 clips near its converter's full scale, often 0 to +10 dBm: give the real ones."""
 
 
-@dataclass(frozen=True)
+@record
 class Station:
     """A strong nearby transmitter: its frequency [Hz], radiated power [W], distance [m] and bearing [rad] from
     the site."""
@@ -130,7 +130,7 @@ def dbm(watts: float) -> float:
     return float(10.0 * np.log10(max(watts, 1e-30) / 1e-3))
 
 
-@dataclass(frozen=True)
+@record
 class Product:
     """An intermodulation product of two stations at a stage's input."""
 

@@ -23,17 +23,16 @@ practice); set it per target.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from noisemodels.hops import fewest_hops, hop_elevation_rad
+from snrgain.records import record
 
 DEFAULT_LAYER_HEIGHT_M = 250e3
 DEFAULT_MIN_ELEVATION_RAD = np.radians(3.0)
 
 
-@dataclass(frozen=True)
+@record
 class TargetDirections:
     """A target's directions of arrival.
 

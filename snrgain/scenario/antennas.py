@@ -5,7 +5,7 @@ antennas, names checked.  A switched candidate (``directions``) is built as one 
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 from typing import Any
 
@@ -17,6 +17,7 @@ from snrgain.antennas.base import item_label, pydantic_problems
 from snrgain.constants import placeable_families
 from snrgain.fields import Bearing, StrictModel, quantity
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.records import record
 
 from .feedline import take_feed_line
 from .receiver import ChainSection
@@ -194,7 +195,7 @@ def reversed_wire(out, first: Antenna, table: dict, bearing_rad: float) -> tuple
     return first, {**table, "position": [end[0], end[1]]}
 
 
-@dataclass
+@record(frozen=False)
 class Built:
     """The antennas built, the reference first when it built, with where each was written, its own chain section
     (None: the scenario's [chain]), the candidates layout may place, and every problem found on the way."""

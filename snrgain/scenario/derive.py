@@ -9,10 +9,11 @@ into a Ground and its spread, the noise sections into :mod:`snrgain.sky.noise`'s
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import get_args, get_origin
 
 from pydantic import BaseModel
+
+from snrgain.records import record
 
 
 def _frozen_type(annotation):
@@ -43,7 +44,7 @@ def resolved_from(section: type[BaseModel], *, rename: dict[str, str] | None = N
             if not info.is_required():
                 setattr(cls, name, _frozen(info.get_default(call_default_factory=True)))
         cls.__annotations__ = annotations
-        cls = dataclass(frozen=True)(cls)
+        cls = record(cls)
 
         def of(klass, value: BaseModel):
             return klass(**{name: _frozen(getattr(value, key)) for key, name in keys})

@@ -3,7 +3,7 @@ sections, and the resolved Scenario handed to the pipeline."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 import numpy as np
@@ -15,6 +15,7 @@ from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
 from snrgain.physics import strong as strongmod
 from snrgain.physics import targets as targetmod
+from snrgain.records import record
 from snrgain.sky import noise as noisemod
 
 from .band import Band, BandSection
@@ -90,7 +91,7 @@ def unique_names(model: ScenarioModel) -> list[tuple[str, str]]:
     return out
 
 
-@dataclass(frozen=True)
+@record
 class Scenario:
     """A validated scenario resolved into SI objects: antennas built, chains cascaded, targets placed.
 

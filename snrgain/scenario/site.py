@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
 from typing import Annotated, Literal
 
 import numpy as np
@@ -20,6 +19,7 @@ from snrgain.fields import (
     quantity,
 )
 from snrgain.physics.ground import Ground, GroundSpread
+from snrgain.records import record
 from snrgain.scenario.structures import Structure, check_detuning
 
 
@@ -106,7 +106,7 @@ class SiteSection(StrictModel):
         return tuple(outline)
 
 
-@dataclass(frozen=True)
+@record
 class Site:
     """Where the station is: name, place [deg], ground (None: perfect) and how uncertain it is, lot outline
     [m east, m north].

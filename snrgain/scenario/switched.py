@@ -14,7 +14,6 @@ end of the same wire).
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass
 
 import numpy as np
 from pydantic import TypeAdapter, ValidationError
@@ -22,6 +21,7 @@ from pydantic import TypeAdapter, ValidationError
 from snrgain.antennas import FAMILIES, Antenna
 from snrgain.antennas.base import pydantic_problems
 from snrgain.fields import Bearing
+from snrgain.records import record
 
 CANDIDATE_KEYS = ("directions",)
 """Keys a candidate table may hold besides its family's, ``place`` and ``chain`` (taken out before the family
@@ -32,7 +32,7 @@ MAX_DIRECTIONS = 8
 COMPASS_POINTS = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE", "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
 
 
-@dataclass(frozen=True)
+@record
 class SwitchedState:
     """One state of a switched antenna: the antenna (``group``, the candidate's own name) and which state this is."""
 

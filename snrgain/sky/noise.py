@@ -19,7 +19,7 @@ and UTC hours.  ``snrgain rank``, ``report`` and ``noise`` all use it.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 from typing import TYPE_CHECKING, Literal
 
@@ -27,6 +27,7 @@ import numpy as np
 
 from noisemodels import p372, solar
 from snrgain.memo import Memo
+from snrgain.records import record
 
 if TYPE_CHECKING:  # the sky machinery (healpy) is imported where it is used
     from noisemodels.sky import SkyComponent
@@ -36,7 +37,7 @@ if TYPE_CHECKING:  # the sky machinery (healpy) is imported where it is used
 # -- settings ---------------------------------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
+@record
 class Sector:
     """Brightness ``contrast_db`` higher from ``start_rad`` clockwise to ``stop_rad`` (compass bearings) [rad, dB]."""
 
@@ -45,7 +46,7 @@ class Sector:
     contrast_db: float = 10.0
 
 
-@dataclass(frozen=True)
+@record
 class ManMadeNoise:
     """P.372 man-made noise of an environment (Table 1 category), at low angles."""
 
@@ -57,7 +58,7 @@ class ManMadeNoise:
     """The site's level over the environment's P.372 median curve [dB] (a level fitted from readings)."""
 
 
-@dataclass(frozen=True)
+@record
 class AtmosphericNoise:
     """Atmospheric noise: P.372's maps for the site, or an Fa given by the user; and where it arrives from."""
 
@@ -74,7 +75,7 @@ class AtmosphericNoise:
     """Reflecting layer of the storm model's sky-wave hops [m]."""
 
 
-@dataclass(frozen=True)
+@record
 class GalacticNoise:
     """Galactic noise (P.372 Section 6) through the ionosphere's day or night critical frequency."""
 
@@ -83,7 +84,7 @@ class GalacticNoise:
     layer_height_m: float = 300e3
 
 
-@dataclass(frozen=True)
+@record
 class LocalSource:
     """A local noise source at a bearing and elevation with an angular spread; level as Fa or as received."""
 
@@ -112,7 +113,7 @@ class LocalSource:
     """The name of the antenna ``level_dbm`` was read on; None: the reference."""
 
 
-@dataclass(frozen=True)
+@record
 class NoiseSettings:
     """Every noise component of a site; a component set to None is absent."""
 
@@ -124,7 +125,7 @@ class NoiseSettings:
     """Folder of the ITU-R P.372 coefficient files (needed by P.372 atmospheric noise and the storm model)."""
 
 
-@dataclass(frozen=True)
+@record
 class Place:
     """Where and at what frequency the sky is wanted."""
 
@@ -339,7 +340,7 @@ def hourly_components(
 # -- the series -------------------------------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
+@record
 class SkySeries:
     """The noise sky as P.372's reference monopole sees it, per month and hour.
 

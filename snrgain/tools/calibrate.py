@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import re
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
@@ -32,6 +32,7 @@ from snrgain.antennas.base import variant
 from snrgain.constants import FREQ_RANGE_HZ, wire_families
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, Ground
+from snrgain.records import record
 from snrgain.tools.readings import read_toml
 
 DEFAULT_VF_UNCERTAINTY = 0.02
@@ -44,7 +45,7 @@ class ReadingError(ValueError):
     """Readings that cannot be inverted or fitted."""
 
 
-@dataclass(frozen=True)
+@record
 class OpenShort:
     """One pair of readings at the feed end: far end open, then shorted."""
 
@@ -140,7 +141,7 @@ def vf_from_quarter_wave(length_m: float, freq_hz: float) -> float:
     return vf
 
 
-@dataclass(frozen=True)
+@record
 class GroundFit:
     """Fitted ground constants with standard uncertainties."""
 
@@ -233,7 +234,7 @@ def fit_ground(
     return GroundFit(float(10 ** best.x[0]), float(10**log_sigma_sd), eps, eps_sd, rms, permittivity is not None)
 
 
-@dataclass(frozen=True)
+@record
 class HeightFit:
     """How high a BOG's axis sits above the soil, fitted to the readings with the soil held at the wire's ground."""
 
@@ -320,7 +321,7 @@ frequency = "0.72 MHz"
 """
 
 
-@dataclass
+@record(frozen=False)
 class WireReadings:
     """A readings file: the wire as built, open/short pairs and quarter-wave resonances."""
 
@@ -411,7 +412,7 @@ def load_readings(path: str | Path) -> WireReadings:
     )
 
 
-@dataclass
+@record(frozen=False)
 class Calibration:
     """What the readings say about a wire and its ground."""
 

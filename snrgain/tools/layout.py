@@ -40,13 +40,14 @@ written.  Its worth is, over the targets nearest its states' bearings, each targ
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import numpy as np
 
 from snrgain.decide.lot import footprint, polygon, tx_clearance_m
 from snrgain.model.placed import tabled
 from snrgain.processes import elsewhere, spare_core
+from snrgain.records import record
 from snrgain.scenario.switched import switched_state
 from snrgain.units import length_text, length_unit_of
 
@@ -73,7 +74,7 @@ WIRE_SEPARATION_M = 10.0
 """Placed wires keep at least this far from other wires (common practice: closer, they couple)."""
 
 
-@dataclass(frozen=True)
+@record
 class Design:
     """One candidate's place: feed point [m east, m north], bearing [rad] (None: the family has none), wire length
     [m] (None: not a wire)."""
@@ -87,7 +88,7 @@ class Design:
     """A switched antenna's states (their names), moved as one; empty for an antenna that is not switched."""
 
 
-@dataclass(frozen=True)
+@record
 class Layout:
     """A set of designs, one per placeable candidate, and the SNR gain each reaches toward its target [dB]."""
 

@@ -31,10 +31,12 @@ from __future__ import annotations
 
 import copy
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 
 import numpy as np
+
+from snrgain.records import record
 
 OFFSET_RANGE_DB = (-40.0, 40.0)
 """The offsets the schema allows [dB] (snrgain.scenario.noise.ManMade.offset)."""
@@ -180,7 +182,7 @@ def move_lines(rows: list[dict], reference: str = "the reference") -> list[str]:
 # ---- the fit from paired decodes
 
 
-@dataclass(frozen=True)
+@record
 class OffsetFit:
     """The man-made offset fitted to paired decodes."""
 

@@ -33,7 +33,7 @@ the same name already in the scenario is replaced, not doubled.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 
 import numpy as np
@@ -42,6 +42,7 @@ from scipy.optimize import least_squares
 from noisemodels import p372
 from snrgain.constants import FREQ_RANGE_HZ
 from snrgain.physics.receiver import power_dbm
+from snrgain.records import record
 from snrgain.tools.readings import read_toml
 
 MAX_BEARING_SIGMA_DEG = 45.0
@@ -95,7 +96,7 @@ level = "-82 dBm"
 """
 
 
-@dataclass(frozen=True)
+@record
 class NoiseReadings:
     """A readings file: frequency [Hz], bandwidth [Hz] and the readings."""
 
@@ -181,7 +182,7 @@ class LocateError(ValueError):
     """Readings that cannot constrain what is asked."""
 
 
-@dataclass(frozen=True)
+@record
 class Reading:
     antenna: object
     """An Antenna (snrgain.antennas) as oriented for this reading."""
@@ -191,7 +192,7 @@ class Reading:
     """How far the fit may miss this reading before it is an outlier [dB]."""
 
 
-@dataclass
+@record(frozen=False)
 class FittedSource:
     bearing_deg: float
     bearing_sigma_deg: float
@@ -201,7 +202,7 @@ class FittedSource:
     ambiguous_180: bool
 
 
-@dataclass
+@record(frozen=False)
 class LocateResult:
     ok: bool
     message: str

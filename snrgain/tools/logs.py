@@ -33,13 +33,14 @@ import functools
 import gc
 import io
 import re
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
 from snrgain.files import InputFileError  # noqa: F401 - re-exported: what read_text raises
+from snrgain.records import record
 from snrgain.tools.locator import LOCATOR_SHAPE, is_locator
 
 MAX_LOG_BYTES = 200_000_000
@@ -86,7 +87,7 @@ def band_of_hz(freq_hz: float) -> str:
     return str(band_of(np.array([freq_hz / 1e6]))[0])
 
 
-@dataclass
+@record(frozen=False)
 class Problems:
     """Lines not used: reason -> list of (file label, line number)."""
 
@@ -387,7 +388,7 @@ def slots(df: pd.DataFrame, slot_s: float | None = None) -> np.ndarray:
 # ---- messages: who sent it, and from where
 
 
-@dataclass(frozen=True)
+@record
 class Sender:
     call: str | None
     locator: str | None
@@ -439,7 +440,7 @@ def sender_of(message: str) -> Sender:
 KEY = ["band", "mode", "slot", "message"]
 
 
-@dataclass(frozen=True)
+@record
 class Pairs:
     """Decodes paired between antenna A and antenna B (one row per pair) and the lines not paired (counted)."""
 

@@ -43,13 +43,14 @@ them first (``snrgain locate``).
 from __future__ import annotations
 
 import datetime as _dt
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 
 import numpy as np
 
 from noisemodels.constants import BOLTZMANN_J_PER_K as BOLTZMANN
 from noisemodels.p372 import T0_K
+from snrgain.records import record
 
 SMALL_RISE_DB = 3.0
 """Below this rise over the load a reading mostly measures the receiver (common practice)."""
@@ -121,7 +122,7 @@ _READING_KEYS = {
 }
 
 
-@dataclass(frozen=True)
+@record
 class Reading:
     index: int
     time: _dt.datetime
@@ -295,7 +296,7 @@ def load_readings(path) -> list[Reading]:
 # ---- through the pipeline
 
 
-@dataclass(frozen=True)
+@record
 class NoiseFit:
     before_db: float
     offset_db: float

@@ -28,12 +28,13 @@ import itertools
 import math
 import re
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
 from snrgain.errors import ScenarioError, SpecError
+from snrgain.records import record
 
 SECTIONS = ("site", "band", "time", "receiver", "chain", "noise", "uncertainty", "compute")
 """Tables of the scenario that a sweep may vary besides the antennas."""
@@ -68,7 +69,7 @@ class VaryError(ValueError):
         super().__init__(f"--vary {text!r}: {message}")
 
 
-@dataclass(frozen=True)
+@record
 class Vary:
     """One varied key: where it is, and the values it takes (as a scenario file would hold them)."""
 
@@ -199,7 +200,7 @@ def designs(varies: list[Vary]) -> Iterator[tuple]:
 # -- evaluation --------------------------------------------------------------------------------------------------
 
 
-@dataclass
+@record(frozen=False)
 class Study:
     """A sweep's scenario and options, everything a worker needs to run designs (picklable)."""
 

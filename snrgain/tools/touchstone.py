@@ -26,12 +26,13 @@ warning reads (:data:`REACTANCE_SHARE_WARN`).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 
 import numpy as np
 
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.records import record
 
 FAR_ENDS = ("open", "short", "terminated")
 REACTANCE_SHARE_WARN = 0.2
@@ -45,7 +46,7 @@ class SweepError(ValueError):
     """A sweep that cannot be read or answers nothing."""
 
 
-@dataclass(frozen=True)
+@record
 class Sweep:
     freq_hz: np.ndarray
     z_ohm: np.ndarray
@@ -95,7 +96,7 @@ def _extremes(f: np.ndarray, mag: np.ndarray):
     return out
 
 
-@dataclass
+@record(frozen=False)
 class SweepResult:
     label: str
     far_end: str

@@ -26,12 +26,13 @@ from __future__ import annotations
 
 import csv
 import io
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
+from snrgain.records import record
 from snrgain.tools import logs
 from snrgain.tools.locator import from_latlon, to_latlon
 
@@ -93,7 +94,7 @@ def median_interval(values, *, rng: np.random.Generator, n_boot: int = 2000, lev
 # ---- results
 
 
-@dataclass(frozen=True)
+@record
 class Group:
     """One target (or sector) at one UTC hour (hour None: all hours pooled)."""
 
@@ -126,7 +127,7 @@ class Group:
         }
 
 
-@dataclass(frozen=True)
+@record
 class VerifyResult:
     a: str
     b: str

@@ -17,8 +17,6 @@ full noise sky is the ranking's business.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from noisemodels.sphere import Directions, upper_hemisphere
@@ -29,6 +27,7 @@ from snrgain.model import snr
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.targets import TargetDirections, from_bearing
+from snrgain.records import record
 
 PRACTICAL_TURNS = (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0)
 """Turns ratios easy to wind on a small two-hole ferrite core (integer and half turns)."""
@@ -83,7 +82,7 @@ def sweep_rdf(
     return out
 
 
-@dataclass(frozen=True)
+@record
 class LengthAdvice:
     """Lengths for a travelling-wave wire [m]."""
 
@@ -113,7 +112,7 @@ def best_length(
     return LengthAdvice(rule, float(lengths[i]), float(rdf[i]), lengths, rdf)
 
 
-@dataclass(frozen=True)
+@record
 class TerminationAdvice:
     """Termination resistors [ohm]."""
 
@@ -161,7 +160,7 @@ RESISTOR_CAUTION_SHORT = (
 )
 
 
-@dataclass(frozen=True)
+@record
 class TerminationAnswer:
     """The one resistor the tool recommends for a terminated antenna, for one criterion, with its context."""
 
@@ -272,7 +271,7 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
     )
 
 
-@dataclass(frozen=True)
+@record
 class TransformerAdvice:
     feed_point_impedance_ohm: complex
     coax_ohm: float
