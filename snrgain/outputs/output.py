@@ -474,7 +474,8 @@ def feed_line_text(fl: dict, unit: str) -> str:
     else:
         effect = f"costs {cost:.1f} dB of SNR gain"
     quiet = (
-        f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm puts it {fl['quiet_below_db']:g} dB below the antenna's own"
+        f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm or more puts it {fl['quiet_below_db']:g} dB below the "
+        "antenna's own"
         if fl["choke_for_quiet_ohm"] > 0
         else f"it is {fl['quiet_below_db']:g} dB or more below the antenna's own"
     )
