@@ -20,7 +20,7 @@ import reprlib
 from dataclasses import MISSING, FrozenInstanceError, dataclass, field, fields
 from typing import dataclass_transform
 
-__all__ = ["field", "record"]
+__all__ = ["field", "is_frozen", "record"]
 
 
 @dataclass_transform(field_specifiers=(field,), frozen_default=True)
@@ -32,6 +32,16 @@ def record(cls=None, /, *, frozen: bool = True, eq: bool = True, repr: bool = Tr
         return _make(c, frozen=frozen, eq=eq, repr=repr)
 
     return wrap if cls is None else wrap(cls)
+
+
+def is_frozen(obj) -> bool:
+    """Whether ``obj`` (an instance or a class) is a frozen record or a frozen ``@dataclass``: its fields can not
+    change after it is made, so what is worked from them may be kept by its identity."""
+    cls = obj if isinstance(obj, type) else type(obj)
+    if getattr(cls, "__record_frozen__", None) is not None:
+        return True
+    params = getattr(cls, "__dataclass_params__", None)
+    return params is not None and bool(params.frozen)
 
 
 def _make(cls, *, frozen: bool, eq: bool, repr: bool):  # noqa: A002

@@ -141,3 +141,29 @@ def test_the_package_classes_are_records():
         and v.__dataclass_params__.frozen
     ]
     assert made == []
+
+
+def test_is_frozen_sees_records_and_dataclasses():
+    # what is kept by an object's identity (a placed source's key) needs to know it cannot change
+    from dataclasses import dataclass
+
+    from snrgain.records import is_frozen, record
+
+    @record
+    class R:
+        a: int
+
+    @record(frozen=False)
+    class M:
+        a: int
+
+    @dataclass(frozen=True)
+    class D:
+        a: int
+
+    @dataclass
+    class E:
+        a: int
+
+    assert is_frozen(R(1)) and is_frozen(R) and is_frozen(D(1))
+    assert not is_frozen(M(1)) and not is_frozen(E(1)) and not is_frozen(object())

@@ -70,6 +70,7 @@ from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
 from snrgain.physics.reciprocity import through_line_grids as _through_line_grids
 from snrgain.physics.reciprocity import wire_emfs as _emfs
+from snrgain.records import is_frozen
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
 """The share of a placed source's power radiated as a vertical and as a horizontal small dipole."""
@@ -798,8 +799,7 @@ def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: st
 def _source_key(src, kind: str) -> tuple:
     """What a placed source's field depends on (its level aside): place, height, polarisation, axis; and the dipole
     (kept by the source object, which is frozen, and held with it so its id stays its own)."""
-    params = getattr(type(src), "__dataclass_params__", None)
-    if params is None or not params.frozen:  # a source that may change: worked afresh
+    if not is_frozen(src):  # a source that may change: worked afresh
         return _source_key_worked(src, kind)
     return _SOURCE_KEYS.get((id(src), kind), lambda: (src, _source_key_worked(src, kind)))[1]
 
