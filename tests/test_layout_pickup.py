@@ -147,8 +147,9 @@ def test_a_placed_copy_keeps_its_designs_gain_key():
     from snrgain.antennas.base import variant
 
     bev = from_si("beverage", length=200.0, height=2.0, bearing=0.5, ground="moist loam")
+    moved = bev.at((30.0, -12.5))  # the design's key made once, for the copy too
+    assert "_gain_key" in moved.__dict__
     key = bev.gain_key()
-    moved = bev.at((30.0, -12.5))
     assert moved.params.position == (30.0, -12.5) and moved.gain_key() == key
     moved.__dict__.pop("_gain_key")
     assert moved.gain_key() == key  # worked afresh
@@ -156,3 +157,34 @@ def test_a_placed_copy_keeps_its_designs_gain_key():
     assert longer.gain_key() != key
     fresh = from_si("beverage", length=210.0, height=2.0, bearing=0.5, ground="moist loam")
     assert fresh.gain_key() == longer.gain_key()
+
+
+@pytest.mark.parametrize("radius_m", [0.005, 0.3])
+def test_the_verticals_lead_emfs_equal_its_field_summed_up_each_lead(radius_m):
+    # wire_couplings works the EMFs up a long wire's down-leads from the vertical's tables with the distances'
+    # interpolation shared by the lead's heights (snrgain.physics.scatter._lead_emfs): to the bit what
+    # snrgain.physics.reciprocity.wire_emfs sums from the field asked for at every point (_field_along)
+    import snrgain.physics.scatter as ps
+    from snrgain.physics.reciprocity import wire_emfs
+
+    v = from_si("vertical", height=30.0, ground="moist loam")
+    tx = ps.TxVertical(v, (10.0, -5.0), complex(ps.RESONANT_LOAD_OHM), radius_m)
+    wire = from_si("beverage", length=180.0, height=2.5, bearing=0.7, ground="moist loam")
+    u = np.array([np.sin(0.7), np.cos(0.7)])
+    rng = np.random.default_rng(11)
+    feeds = np.concatenate([[[10.0, -5.0], [10.2, -5.1]], rng.uniform(-250.0, 250.0, (40, 2))])
+    x = np.linspace(0.0, 180.0, 65)
+
+    def field(pts, heights):
+        return ps._field_along(tx, F_HZ, pts, heights)
+
+    def leads(ends, h):
+        return ps._lead_emfs(tx, F_HZ, ends, h)
+
+    ps._TABLES.clear()
+    emf, want = wire_emfs(wire, feeds, x, u, field)
+    ps._TABLES.clear()  # the tables made afresh by the shared path too
+    emf2, got = wire_emfs(wire, feeds, x, u, field, None, leads)
+    assert got.shape == want.shape == (2 * len(feeds),)
+    np.testing.assert_array_equal(got, want)
+    np.testing.assert_array_equal(emf2, emf)

@@ -26,6 +26,8 @@ monopole of its height and top loading loaded at its foot by its base_load (0: g
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from snrgain.memo import Memo
@@ -39,11 +41,15 @@ FORWARD_ELEVATION_RAD = np.radians(20.0)
 _AZ_STEP_DEG, _EL_STEP_DEG = 4.0, 2.0
 
 
+@functools.lru_cache(maxsize=1)
 def _grid():
+    """tx_cost's directions (azimuths, elevations) [rad]: read-only arrays, made once."""
     az = np.radians(np.arange(0.0, 360.0, _AZ_STEP_DEG))
     el = np.radians(np.arange(0.5 * _EL_STEP_DEG, 90.0, _EL_STEP_DEG))
-    a, e = np.meshgrid(az, el, indexing="ij")
-    return a.ravel(), e.ravel()
+    a, e = (g.ravel() for g in np.meshgrid(az, el, indexing="ij"))
+    a.flags.writeable = False
+    e.flags.writeable = False
+    return a, e
 
 
 def tx_antenna(sc):
@@ -247,12 +253,33 @@ def _design_sums(b0, tx: phys.TxVertical, f: float) -> tuple:
     az, el, _, (ev0, eh0), alone = _alone(b0, f)
     n = len(az) - 2  # tx_cost's grid (the same for every design), then the design's forward and back
     key = (phys._params_json(tx.vertical.params), complex(tx.load_ohm), float(tx.radius_m), float(f))
-    grid = _GRID_FIELD.get(key, lambda: (*_grid(), *_cell_field(tx, f, *_grid())))
+    grid = _GRID_FIELD.get(key, lambda: _grid_field(tx, f, *_grid()))
     if not (np.array_equal(grid[0], az[:n]) and np.array_equal(grid[1], el[:n])):  # not that grid: worked here
-        grid = (az[:n], el[:n], *_cell_field(tx, f, az[:n], el[:n]))
+        grid = _grid_field(tx, f, az[:n], el[:n])
     ends = _cell_field(tx, f, az[n:], el[n:])  # elementwise: the same values as worked with the grid's
-    field, ux, uy = (np.concatenate([g, e]) for g, e in zip(grid[2:], ends))
-    return alone, _cell_sums(ev0, eh0, field, el, ux, uy), ux, uy
+    field, ux, uy = (np.concatenate([g, e]) for g, e in zip(grid[2:5], ends))
+    return alone, _cell_sums(ev0, eh0, field, el, ux, uy, grid[5]), ux, uy
+
+
+def _grid_field(tx: phys.TxVertical, f: float, az: np.ndarray, el: np.ndarray) -> tuple:
+    """(azimuths, elevations, :func:`_cell_field` on them, :func:`_grid_sums`): a scatterer's part of tx_cost's
+    grid, the same for every design beside it."""
+    field, ux, uy = _cell_field(tx, f, az, el)
+    return az, el, field, ux, uy, _grid_sums(el, ux, uy, field)
+
+
+def _grid_sums(el, ux, uy, field) -> tuple:
+    """What :func:`_cell_sums` takes of the grid's cells alone (the same for every design beside one scatterer):
+    their weights as :func:`_rdf_db` weighs them, where the azimuths' turned half starts (all of them when the
+    grid's azimuths do not come in pairs 180 deg apart: every cell's phase worked), and the weighted mean of
+    |field|^2."""
+    n = len(el)
+    w = np.cos(el) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi)
+    half = n // 2
+    paired = (
+        n % 2 == 0 and np.allclose(ux[half:], -ux[:half], atol=1e-12) and np.allclose(uy[half:], -uy[:half], atol=1e-12)
+    )
+    return w, half if paired else n, float(np.sum(w * np.abs(field) ** 2))
 
 
 def _cell_field(tx: phys.TxVertical, f: float, az: np.ndarray, el: np.ndarray) -> tuple:
@@ -262,25 +289,18 @@ def _cell_field(tx: phys.TxVertical, f: float, az: np.ndarray, el: np.ndarray) -
     return field, np.cos(el) * np.sin(az), np.cos(el) * np.cos(az)
 
 
-def _cell_sums(ev0, eh0, field, el, ux, uy) -> tuple:
+def _cell_sums(ev0, eh0, field, el, ux, uy, grid_sums=None) -> tuple:
     """What the RDF of ``ev0 + c field exp(j k d . u)`` (and ``eh0``) on tx_cost's grid (:func:`_rdf_db`) needs of
     the response and the scattered field, the same at every place: the mean of |ev0|^2 + |eh0|^2 and of |field|^2
     over the cells, weighted as :func:`_rdf_db` weighs them; a = w conj(ev0) field on each half of the azimuths
-    (the second half the first turned 180 deg: its phases the conjugates); and the forward direction's values."""
+    (the second half the first turned 180 deg: its phases the conjugates); and the forward direction's values.
+    ``grid_sums``: the grid's own part (:func:`_grid_sums`) when already worked."""
     n = len(el) - 2
-    w = np.cos(el[:n]) * np.radians(_AZ_STEP_DEG) * np.radians(_EL_STEP_DEG) / (4 * np.pi)
+    w, half, power = grid_sums if grid_sums is not None else _grid_sums(el[:n], ux[:n], uy[:n], field[:n])
     a = w * np.conj(ev0[:n]) * field[:n]
-    half = n // 2
-    paired = (
-        n % 2 == 0
-        and np.allclose(ux[half:n], -ux[:half], atol=1e-12)
-        and np.allclose(uy[half:n], -uy[:half], atol=1e-12)
-    )
-    if not paired:  # another grid: every cell's phase worked
-        half = n
     return (
         float(np.sum(w * (np.abs(ev0[:n]) ** 2 + np.abs(eh0[:n]) ** 2))),
-        float(np.sum(w * np.abs(field[:n]) ** 2)),
+        power,
         a[:half],
         np.conj(a[half:]),
         (ev0[-2], abs(eh0[-2]) ** 2, field[-2]),

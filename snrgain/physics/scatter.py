@@ -516,6 +516,31 @@ def _field_along_wire(tx: TxVertical, freq_hz: float, pts, height_m: float, u: n
     return _ALONG.get(key, now)
 
 
+def _lead_emfs(tx: TxVertical, freq_hz: float, ends, height_m: float) -> np.ndarray:
+    """The EMF up a down-lead of ``height_m`` standing at each of the plan points ``ends`` (M, 2) in the vertical's
+    field: snrgain.physics.reciprocity.wire_emfs' Gauss-Legendre sum of :func:`_field_along`'s vertical field up it,
+    by the same arithmetic, with the distances' interpolation worked once for all the rule's heights (the same plan
+    points at each) rather than once per height."""
+    from snrgain.physics.reciprocity import LEAD_POINTS, lead_rule
+
+    t, wq = lead_rule()
+    zs = (t + 1) * height_m / 2
+    ends = np.ascontiguousarray(np.atleast_2d(np.asarray(ends, dtype=float)))
+    d = ends - np.asarray(tx.position_m, dtype=float)[None, :]
+    rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    lr, grid = np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
+    j = np.searchsorted(grid, lr, side="right") - 1
+    lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)
+    phase = np.exp(-1j * k * rho)
+    at = _interpolator(lr, grid, j)
+    out = np.zeros((len(ends) * LEAD_POINTS, 3), dtype=complex)  # laid out as wire_emfs asks for the points
+    for m, z in enumerate(zs):
+        _, e_z = _field_table(tx, freq_hz, float(z), lo, hi)
+        out[m::LEAD_POINTS, 2] = at(e_z) * phase
+    return (out[:, 2].reshape(len(ends), LEAD_POINTS) @ wq) * height_m / 2
+
+
 def _interpolator(x: np.ndarray, grid: np.ndarray, j: np.ndarray):
     """np.interp(x, grid, .) of complex tables, real and imaginary parts, with the interval j of each x found once
     (grid[j] <= x < grid[j + 1]; the same arithmetic: slope (f[j+1] - f[j]) / (grid[j+1] - grid[j]) times
@@ -560,14 +585,17 @@ def wire_couplings(wire, tx: TxVertical, freq_hz: float, feeds_m) -> np.ndarray:
     step = min(C_M_PER_S / freq_hz * WIRE_STEP_WAVELENGTHS, max(closest, 1.0) / 3.0)
     x = np.linspace(0.0, wire.length_m, max(WIRE_MIN_SAMPLES, int(np.ceil(wire.length_m / step))) + 1)
 
-    def field(pts, heights):  # up the leads
+    def field(pts, heights):  # the whole field (the leads are worked by leads below)
         return _field_along(tx, freq_hz, pts, heights)
 
     def along(pts, height):  # along the wire: the radial field's part along it alone
         return _field_along_wire(tx, freq_hz, pts, height, u)
 
+    def leads(ends, height):  # up the leads: the vertical field's interpolation shared by the rule's heights
+        return _lead_emfs(tx, freq_hz, ends, height)
+
     def emfs():
-        emf, lead = wire_emfs(wire, feeds, x, u, field, along)
+        emf, lead = wire_emfs(wire, feeds, x, u, field, along, leads)
         for v in (emf, lead):
             if v is not None:
                 v.flags.writeable = False
