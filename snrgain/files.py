@@ -152,6 +152,11 @@ class OutputExistsError(FileExistsError):
         super().__init__(f"{self.path} exists; it was not replaced")
 
 
+def missing_folder(d: str | Path) -> FileNotFoundError:
+    """The error for an output folder that does not exist: what to do about it (snrgain makes no folders)."""
+    return FileNotFoundError(f"folder {d} does not exist; create it first (mkdir {d}) or name another")
+
+
 def check_writable(path: str | Path, *, overwrite: bool) -> Path:
     """Check, before any work, that ``path`` can be written: not an existing file unless ``overwrite``, never a
     link, a folder or a device, in a folder that exists and can be written.  Returns the path."""
@@ -163,7 +168,7 @@ def check_writable(path: str | Path, *, overwrite: bool) -> Path:
     if p.exists() and not overwrite:
         raise OutputExistsError(p)
     if not p.parent.exists():
-        raise FileNotFoundError(f"folder {p.parent} does not exist")
+        raise missing_folder(p.parent)
     if not os.access(p.parent, os.W_OK | os.X_OK):
         raise PermissionError(f"folder {p.parent} cannot be written")
     return p
@@ -221,7 +226,7 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
     """
     d = Path(folder)
     if not d.is_dir():
-        raise FileNotFoundError(f"folder {d} does not exist")
+        raise missing_folder(d)
     targets = [check_writable(d / name, overwrite=overwrite) for name in writers]
     remove_stale(d)
     tmp_dir = None

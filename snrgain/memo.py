@@ -10,6 +10,8 @@ from collections import OrderedDict
 from collections.abc import Callable, Hashable
 from typing import Any
 
+_MISSING = object()
+
 
 class Memo:
     """Up to ``size`` results by key, and with ``max_bytes`` up to that many bytes of numpy arrays in them (the
@@ -25,9 +27,10 @@ class Memo:
 
     def get(self, key: Hashable, make: Callable[[], Any]) -> Any:
         held = self._held
-        if key in held:
+        value = held.get(key, _MISSING)  # a hit hashes its key twice (here and to move it), not three times
+        if value is not _MISSING:
             held.move_to_end(key)
-            return held[key]
+            return value
         value = held[key] = make()
         if self.max_bytes is not None:
             self._sizes[key] = n = array_bytes(value)

@@ -141,3 +141,44 @@ def test_a_keep_outs_name_moves_below_it_when_a_placed_source_sits_inside(result
     assert clear.xy == pytest.approx((10.0 * plan["per_m"], 7.5 * plan["per_m"])) and clear.get_va() == "center"
     inside = name_of([("inverter", (8.0, 7.0))])
     assert inside.xy == pytest.approx((10.0 * plan["per_m"], 0.0)) and inside.get_va() == "top"
+
+
+def test_the_north_arrow_takes_a_free_corner():
+    # the site plan's north arrow stands top right unless something is drawn there (a flag placed in that corner
+    # of the lot sat under it), then in the next free corner
+    from snrgain.outputs.plots import _north_corner
+
+    xlim, ylim = (-170.0, 270.0), (-135.0, 195.0)  # the lot (-150..250 by -120..180) and its margins
+    empty = np.zeros((0, 2))
+    x, y = _north_corner(empty, xlim, ylim)
+    assert x > 200 and y > 100  # top right
+    x, y = _north_corner(np.array([[248.0, 176.0], [0.0, 0.0]]), xlim, ylim)
+    assert x < -100 and y > 100  # top left
+    crowded = np.array([[248.0, 176.0], [-140.0, 170.0], [-140.0, 150.0], [0.0, 0.0]])
+    x, y = _north_corner(crowded, xlim, ylim)
+    assert x > 200 and y < 0  # bottom right
+
+
+def test_a_margin_value_below_the_target_stands_clear_of_the_target_line():
+    # The margin panel writes each value at its bar's end; a value just below the target (8.2 against 10 dB, seen on
+    # scenarios/marrow-fen.toml) ran over the target's dotted line: it now starts beyond the line, clear of it, while
+    # a value well below it stays at its bar.
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(3.0, 2.0), dpi=110)
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot()
+    ax.barh([0, 1], [8.2, 2.0])
+    ax.set_xlim(0, 40)
+    line = ax.axvline(10.0, ls=":")
+    near, far = (ax.text(v, y, f" {v:.1f} !", va="center", fontsize=8) for y, v in ((0, 8.2), (1, 2.0)))
+    fig.canvas.draw()
+    line_x = ax.transData.transform((10.0, 0.0))[0]
+    assert _boxes(fig, [near])[0].x1 > line_x  # as written, the label crosses the line
+    plots._clear_of_line(fig, ax, [near, far], 10.0)
+    fig.canvas.draw()
+    boxes = _boxes(fig, [near, far])
+    assert near.get_position()[0] == 10.0 and boxes[0].x0 >= line_x  # beyond the line
+    assert far.get_position()[0] == 2.0 and boxes[1].x1 < line_x  # it fitted: left where it was
+    assert line.get_xdata()[0] == 10.0

@@ -266,6 +266,7 @@ def test_figures_drawn_by_workers_are_the_bytes_drawn_in_this_process(results, m
     # one after the other here gives, in the jobs' order.
     from functools import partial
 
+    from snrgain import processes
     from snrgain.outputs import drawing
 
     jobs = [
@@ -273,25 +274,15 @@ def test_figures_drawn_by_workers_are_the_bytes_drawn_in_this_process(results, m
         (partial(plots.ranking_chart, results), "png", plots.SAVE_OPTIONS),
         (partial(plots.elevation_pattern, results, target_index=0), "png", plots.SAVE_OPTIONS),
     ]
-    monkeypatch.setenv(drawing.ENV_WORKERS, "1")
+    monkeypatch.setenv(processes.ENV_WORKERS, "1")
     alone = drawing.draw_all(jobs)
-    monkeypatch.setenv(drawing.ENV_WORKERS, "2")
-    if drawing.workers(len(jobs)) < 2:
+    monkeypatch.setenv(processes.ENV_WORKERS, "2")
+    if processes.workers(len(jobs)) < 2:
         pytest.skip("one core or no fork here: only the serial path can run")
     counted = []
     shared = drawing.draw_all(jobs, done=lambda: counted.append(1))
     assert shared == alone and len(counted) == len(jobs)
     assert all(b.startswith(b"\x89PNG") for b in shared)
-
-
-def test_workers_setting_is_checked(monkeypatch):
-    from snrgain.outputs import drawing
-
-    monkeypatch.setenv(drawing.ENV_WORKERS, "many")
-    with pytest.raises(ValueError, match="SNRGAIN_WORKERS='many'"):
-        drawing.workers(4)
-    monkeypatch.setenv(drawing.ENV_WORKERS, "1")
-    assert drawing.workers(4) == 1
 
 
 def test_saving_an_svg_with_one_draw_writes_the_picture_savefig_writes(results, monkeypatch):
@@ -395,6 +386,7 @@ def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_it
 
     import matplotlib as mpl
 
+    from snrgain import processes
     from snrgain.outputs import drawing
 
     monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
@@ -403,10 +395,10 @@ def test_the_figures_process_started_first_draws_the_same_bytes_and_ends_with_it
         (partial(plots.ranking_chart, results), "svg", {"bbox_inches": "tight", "metadata": {"Date": None}}),
         (partial(plots.site_plan, results), "png", plots.SAVE_OPTIONS),
     ]
-    monkeypatch.setenv(drawing.ENV_WORKERS, "1")
+    monkeypatch.setenv(processes.ENV_WORKERS, "1")
     here = drawing.draw_all(jobs)
-    monkeypatch.setenv(drawing.ENV_WORKERS, "2")
-    if drawing.workers(len(jobs)) < 2:
+    monkeypatch.setenv(processes.ENV_WORKERS, "2")
+    if processes.workers(len(jobs)) < 2:
         pytest.skip("one core or no fork here: no figures process is started")
     counted = []
     with drawing.Drawer("png", modules=["snrgain.outputs.report"]) as drawer:
@@ -552,9 +544,10 @@ def test_the_results_sent_to_the_figures_process_draw_the_same_figures(results):
 
 
 def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
-    # snrgain.outputs.canvas keeps each text's measure, layout and font heights for the process (the command line's
-    # figures' processes): the figures drawn so, one after the other (the second azimuth pattern reading what the
-    # first found), are matplotlib's own pixels, with the default settings and with the figures' own.
+    # snrgain.outputs.canvas keeps each text's measure for the process (the command line's figures' processes): the
+    # figures drawn so, one after the other (the second azimuth pattern reading what the first found), are
+    # matplotlib's own pixels and SVG files, with the default settings and with the figures' own; matplotlib's SVG
+    # writer is left as it is (the remembering one is handed to savefig by its backend keyword).
     from functools import partial
 
     import matplotlib as mpl
@@ -569,6 +562,7 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
     ]
     from matplotlib.backends import backend_svg
 
+    renderer_svg, canvas_svg = backend_svg.RendererSVG, backend_svg.FigureCanvasSVG
     svg = {"bbox_inches": "tight", "metadata": {"Date": None}}
     for rc in ({}, drawing.DRAWING_RC):
         with mpl.rc_context({**rc, "svg.hashsalt": "fixed"}):
@@ -580,14 +574,16 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
                 figs = [make() for make in makers]
                 assert all(type(f.canvas) is canvas.RememberingCanvas for f in figs)
                 assert [drawing.figure_bytes(f, "png", **plots.SAVE_OPTIONS) for f in figs] == plain
-                assert canvas._MEASURED and (canvas._LAID_OUT and canvas._HEIGHTS or not canvas._LAYOUTS)
-                assert backend_svg.RendererSVG is canvas.RememberingSVGRenderer
+                assert canvas._MEASURED
+                assert canvas.svg_backend() == canvas.SVG_BACKEND
+                canvas.forget()
                 assert [drawing.figure_bytes(make(), "svg", **svg) for make in makers] == plain_svg
-                assert canvas._GLYPHS and canvas._OUTLINES  # the SVG writer's glyphs, found once
+                assert any(key[0] == "svg" for key in canvas._MEASURED)  # measured by the remembering SVG renderer
+                assert backend_svg.RendererSVG is renderer_svg and backend_svg.FigureCanvasSVG is canvas_svg
             finally:
                 canvas.remember_text(was)
         assert not canvas._MEASURED and type(makers[0]().canvas) is not canvas.RememberingCanvas
-        assert backend_svg.RendererSVG is not canvas.RememberingSVGRenderer
+        assert canvas.svg_backend() is None
 
 
 def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
@@ -602,40 +598,10 @@ def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
     assert drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS) == without
 
 
-def test_ticks_placed_once_draw_the_same_files(results, monkeypatch):
-    # drawing.ticks_once has each axis place its ticks once while nothing they depend on changes (a draw asks
-    # again and again, an SVG's measured box once more): the same files as with the ticks placed at every ask, and
-    # the axes left as they were.
-    import contextlib
-
-    import matplotlib as mpl
-
-    from snrgain.outputs import drawing
-
-    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
-    svg = {"bbox_inches": "tight", "metadata": {"Date": None}}
-    makers = (plots.azimuth_pattern, plots.noise_sky, plots.ranking_chart, plots.snr_over_hours, plots.site_plan)
-    once = [
-        drawing.figure_bytes(make(results), fmt, **opts)
-        for make in makers
-        for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
-    ]
-    fig = plots.elevation_pattern(results)
-    with drawing.ticks_once(fig):
-        assert all("_update_ticks" in vars(a) for ax in fig.axes for a in ax._axis_map.values())
-    assert not any("_update_ticks" in vars(a) for ax in fig.axes for a in ax._axis_map.values())
-    monkeypatch.setattr(drawing, "ticks_once", lambda fig: contextlib.nullcontext())
-    every = [
-        drawing.figure_bytes(make(results), fmt, **opts)
-        for make in makers
-        for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
-    ]
-    assert once == every
-
-
-def test_the_figures_process_imports_matplotlib_without_its_3d_axes():
-    # drawing.warm_up (in the figures' helper, a process of its own) leaves matplotlib's 3D axes unimported, quietly,
-    # and they import again after; its small figure is drawn only where asked (the figure drawn ahead warms up).
+def test_the_figures_process_imports_matplotlib_as_it_is():
+    # drawing.warm_up (in the figures' helper, a process of its own) imports matplotlib whole, as it is (nothing
+    # stood in for or left out), warning-free; its small figure is drawn only where asked (the figure drawn ahead
+    # warms up).
     import sys
 
     code = (
@@ -643,7 +609,8 @@ def test_the_figures_process_imports_matplotlib_without_its_3d_axes():
         "warnings.simplefilter('error')\n"
         "from snrgain.outputs import drawing\n"
         "drawing.warm_up('svg', ['snrgain.outputs.report'], draw=False)\n"
-        "assert 'matplotlib.figure' in sys.modules and 'mpl_toolkits.mplot3d' not in sys.modules\n"
+        "assert 'matplotlib.figure' in sys.modules and 'matplotlib.backends.backend_svg' in sys.modules\n"
+        "assert all(m is not None for m in sys.modules.values())\n"
         "drawing.warm_up_figure('svg')\n"
         "from mpl_toolkits.mplot3d import Axes3D\n"
         "print('ok')\n"

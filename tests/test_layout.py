@@ -207,14 +207,25 @@ def test_the_rules_worked_on_many_designs_at_once_match_one_by_one(name):
             "position": [0, 150],
         }
     )
+    data["candidate"].append(  # an array that stays where written: every design keeps 10 m from its elements
+        {
+            "name": "fixed pair",
+            "family": "phased-verticals",
+            "positions": [[60, 40], [60, 55]],
+            "height": "6 m",
+            "bearing": 0,
+        }
+    )
     data["site"]["tx_clearance"] = "30 m"
     pb = Problem(load(data), data, base_dir=base)
+    assert [name for name, _ in pb.fixed_spots] == ["fixed pair"]
     for i in range(len(pb.names)):
         pairs, points = pb.grid_designs(i)
         designs = [Design(pb.names[i], e, n, b, ln) for b, ln in pairs[::3] for e, n in points]
         one = [pb.violations(d) for d in designs]
         assert pb.violations_many(designs) == one
         assert any(one) and not all(one)
+        assert any("from the antenna 'fixed pair'" in rule for v in one for rule in v)
         # the flags alone (the grid's feasibility, the refinement's trials): broken exactly where a value is > 0
         assert list(pb.keep_rules(designs)) == [not v for v in one]
         flags = pb.violation_columns(designs, flags=True)
@@ -280,12 +291,12 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
     # one after the other here, to the bit, and the search's layouts the same.
     import snrgain.tools.layout as layout
 
-    monkeypatch.setattr(layout, "_spare_core", lambda: False)
+    monkeypatch.setattr(layout, "spare_core", lambda: False)
     one = _problem(FILES[1])
     feasible = [one.feasible(i) for i in range(len(one.names))]
     assert len(feasible) > 1
     alone = one.grid_all(feasible)
-    monkeypatch.setattr(layout, "_spare_core", lambda: True)
+    monkeypatch.setattr(layout, "spare_core", lambda: True)
     two = _problem(FILES[1])
     seen = []
     shared = two.grid_all(feasible, progress=lambda done, total: seen.append((done, total)))
@@ -293,37 +304,36 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
     assert seen[-1] == (sum(map(len, feasible)),) * 2
     # a candidate scored in the other process leaves no products here: the search makes its start again
     assert not any(k[0] == len(feasible) - 1 for k in two._sky)
-    monkeypatch.setattr(layout, "_spare_core", lambda: False)
+    monkeypatch.setattr(layout, "spare_core", lambda: False)
     want = one.search(keep=2)
-    monkeypatch.setattr(layout, "_spare_core", lambda: True)
+    monkeypatch.setattr(layout, "spare_core", lambda: True)
     got = _problem(FILES[1]).search(keep=2)
     assert [lay.designs for lay in got] == [lay.designs for lay in want]
     assert [lay.snr_gain_db for lay in got] == [lay.snr_gain_db for lay in want]
 
 
-def test_work_elsewhere_gives_its_result_or_none():
-    from snrgain.tools.layout import _elsewhere
-
-    with _elsewhere(lambda: {"scores": [1.5, 2.5]}) as got:
-        here = sum(range(10))
-        assert got() == {"scores": [1.5, 2.5]}
-    assert here == 45
-    with _elsewhere(lambda: 1 / 0) as got:  # a failure there: None, nothing raised or printed here
-        assert got() is None
-
-
-def test_a_forked_process_only_beside_a_spare_core(monkeypatch):
-    import os
-
-    import snrgain.outputs.drawing as drawing
-    import snrgain.tools.layout as layout
-
-    monkeypatch.setattr(os, "sched_getaffinity", lambda pid: {0, 1}, raising=False)
-    monkeypatch.setattr(drawing, "workers", lambda count: 2)
-    monkeypatch.setattr(os, "getloadavg", lambda: (1.2, 1.0, 1.0))
-    assert layout._spare_core()
-    monkeypatch.setattr(os, "getloadavg", lambda: (3.0, 1.0, 1.0))  # busy: no second process
-    assert not layout._spare_core()
-    monkeypatch.setattr(drawing, "workers", lambda count: 1)  # one core, no fork, or SNRGAIN_WORKERS=1
-    monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
-    assert not layout._spare_core()
+def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp_path):
+    # a feed line on a placeable candidate: the layout scores the antenna without it (its run depends on where the
+    # antenna stands) and says so; the written layout ranks with it, and rank's nominal equals the layout's score
+    # for the antenna without a feed line
+    text = (DATA / FILES[0]).read_text(encoding="utf-8")
+    marker = 'place = { bearing = ["30 deg", "60 deg"]'
+    assert marker in text
+    fed = 'position = [0, 100]\nfeed_line = { to = [30, 12], height = "buried" }\n'  # where it stood before
+    text = text.replace(marker, fed + marker, 1)
+    src, out = tmp_path / "fed.toml", tmp_path / "placed.toml"
+    src.write_text(text, encoding="utf-8")
+    runner = CliRunner()
+    res = runner.invoke(cli, ["layout", str(src), "--write", str(out), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    got = json.loads(res.stdout)
+    assert got["notes"] and got["notes"][0].startswith("Beverage Europe: its feed line is not in the layout's score")
+    best = {c["name"]: c for c in got["layouts"][0]["candidates"]}
+    rank = runner.invoke(cli, ["rank", str(out), "--format", "json"])
+    assert rank.exit_code == 0, rank.output
+    ranked = json.loads(rank.stdout)
+    assert "feed_line" in ranked["build"]["Beverage Europe"]
+    nominal = {(r["name"], t["name"]): r["snr_gain_db"]["nominal"] for t in ranked["targets"] for r in t["ranking"]}
+    pac = best["Beverage Pacific"]
+    # (the written file rounds places to 0.1 m and bearings to 0.1 deg)
+    assert nominal[("Beverage Pacific", pac["target"])] == pytest.approx(pac["snr_gain_db"], abs=0.01)

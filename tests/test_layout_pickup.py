@@ -138,3 +138,21 @@ def test_the_verticals_tables_made_as_needed_read_as_made_whole(radius_m):
     ez = (np.interp(lr, grid, e_z.real) + 1j * np.interp(lr, grid, e_z.imag)) * np.exp(-1j * k * rho)
     np.testing.assert_array_equal(got[:, 2], ez)
     np.testing.assert_array_equal(got[:, 0], er * d[:, 0] / rho)
+
+
+def test_a_placed_copy_keeps_its_designs_gain_key():
+    # Antenna.at hands the copy the key its design already has (the key leaves the position out): the key worked
+    # afresh is the same, and a copy of a copy whose parameters were then replaced works its own
+    from snrgain.antennas import from_si
+    from snrgain.antennas.base import variant
+
+    bev = from_si("beverage", length=200.0, height=2.0, bearing=0.5, ground="moist loam")
+    key = bev.gain_key()
+    moved = bev.at((30.0, -12.5))
+    assert moved.params.position == (30.0, -12.5) and moved.gain_key() == key
+    moved.__dict__.pop("_gain_key")
+    assert moved.gain_key() == key  # worked afresh
+    longer = variant(moved, length=210.0).at((1.0, 2.0))
+    assert longer.gain_key() != key
+    fresh = from_si("beverage", length=210.0, height=2.0, bearing=0.5, ground="moist loam")
+    assert fresh.gain_key() == longer.gain_key()

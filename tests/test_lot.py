@@ -72,12 +72,16 @@ def test_a_wire_inside_the_lot_and_clear_of_everything_draws_no_warning():
         ('position = [0, 0]\nbearing = 0\nlength = "250 m"', "off-lot"),
         ('position = [50, 74]\nbearing = 90\nlength = "100 m"', "in-keep-out"),  # 4 m past the TV
         ('position = [100, 20]\nbearing = 90\nlength = "60 m"', "wires-cross"),
+        # the inside wire again, 30 cm aside (an alternative with a choke, another height): said as such, not a cross
+        ('position = [150.3, 0]\nbearing = 0\nlength = "150 m"', "wires-same-place"),
     ],
 )
 def test_placement_warnings(cand, code):
     c = f'[[candidate]]\nname = "x"\nfamily = "beverage"\nheight = "2 m"\n{cand}\n'
     r = snrgain.evaluate(BASE.format(extra_site="", candidates=c))
     assert any(n.code == code and "x" in (n.antenna, n.values.get("other")) for n in r.notices)
+    if code == "wires-same-place":
+        assert not [n for n in r.notices if n.code == "wires-cross"]
 
 
 def test_a_long_wire_near_the_vertical_is_computed_not_flagged_by_distance():

@@ -448,3 +448,33 @@ def test_a_rule_of_several_holds_each_rule_to_the_bit(counts, offset):
         alone = modal._rule_on(edges, n, offset)
         for got, want in zip(modal._rule_of(rules, counts, i), alone):
             assert (got is None and want is None) or np.array_equal(got, want)
+
+
+def test_the_fast_mode_is_the_reference_mode_over_a_broad_grid():
+    # The mode the line model takes (modal.wire_over_earth: Newton's steps and Halley's finish on the coarse and
+    # check rules) against the secant's path finished on the fine rule (modal.wire_over_earth_secant) over the wires
+    # the tool models: bare wires 0.3-10 m up with three radii and insulated wires on and just over the soil, grounds
+    # from 0.5 mS/m to sea water, 1.8-7.3 MHz.  The same wires have no settled mode on both paths (some insulated
+    # wires resting on the soil), the rest agree within 1e-10 relative in gamma, Z' and Y' (measured 1.8e-11 over a
+    # grid of 3680 such wires).
+    grounds = ((5e-4, 3.0), (2e-3, 10.0), (5e-3, 13.0), (0.03, 20.0), (5.0, 80.0))
+    freqs = (1.8e6, 3.8e6, 5.3e6, 7.3e6)
+    none = 0
+    for sigma, eps in grounds:
+        g = _ground(sigma, eps)
+        for f in freqs:
+            for h in (0.3, 1.0, 2.5, 10.0):
+                for a in (0.25e-3, A, 2.5e-3):
+                    zi = complex(lines.wire_internal_impedance(f, a))
+                    start = lines.overhead_wire(f, radius_m=a, height_m=h, ground=g, model="closed-form").gamma
+                    args = (f, h, a, eps, sigma, zi, complex(start))
+                    _same_mode(modal.wire_over_earth.__wrapped__(*args), modal.wire_over_earth_secant(*args))
+            for a, b, eps_i in ((0.5e-3, 1.6e-3, 2.3), (0.4e-3, 1.0e-3, 3.5)):
+                for h in (b, 0.02):
+                    wire = {"radius_m": a, "insulation_radius_m": b, "insulation_permittivity": eps_i, "height_m": h}
+                    start = lines.insulated_on_ground(f, **wire, ground=g, model="closed-form").gamma
+                    args = (f, h, a, eps, sigma, complex(lines.wire_internal_impedance(f, a)), complex(start), b, eps_i)
+                    got = modal.wire_over_earth.__wrapped__(*args)
+                    _same_mode(got, modal.wire_over_earth_secant(*args))
+                    none += got is None
+    assert none > 0  # the grid holds wires without a settled mode too

@@ -474,6 +474,17 @@ def test_loops_plane_wave_voltages_are_placed_plane_wave_fields():
             assert got[1, i] == pytest.approx(2j * want, rel=1e-12, abs=1e-12 * abs(v[0]).max())
 
 
+def test_plane_wave_fields_are_plane_wave_field_of_each_polarisation():
+    # both polarisations from one pair of phases (what _through_currents takes): each the one-polarisation field,
+    # to the bit
+    a = from_spec(FAMILIES["pennant"])
+    pts = a.transmit_segments(F)[0]
+    for az, el in ((0.3, 0.1), (4.0, 1.2)):
+        both = placed.plane_wave_fields(F, pts, az, el, a.ground)
+        for pol, got in zip(("v", "h"), both):
+            np.testing.assert_array_equal(got, placed.plane_wave_field(F, pts, az, el, a.ground, pol))
+
+
 @pytest.mark.parametrize("name", sorted(FAMILIES))
 def test_far_source_gives_the_patterns_ratio(name):
     # 30 km away a vertical source (a vertically polarised ground wave) read through the currents gives the family's

@@ -112,6 +112,30 @@ def test_a_termination_searchs_resistors_in_one_pass_equal_each_alone():
     )
 
 
+@pytest.mark.parametrize("family", ["beverage", "unterminated"])
+def test_a_wires_sample_grids_through_the_line_at_once_equal_each_alone(family):
+    # through_line_grids (the line and loads asked for once, the grids' transfer functions worked together, some
+    # already kept) gives through_line's currents on each grid; an open far end too
+    from snrgain.physics.reciprocity import through_line_grids
+
+    wire = from_si(family, length=220.0, height=2.0, bearing=0.4, ground="moist loam")
+    src = _source((30.0, 90.0), 2.0)
+    u = np.array([np.sin(0.4), np.cos(0.4)])
+    parts = []
+    for n, closest in ((1, 20.0), (3, 5.0), (2, 60.0)):
+        x = placed.wire_grid(wire, src, F_HZ, closest)
+        feeds = np.column_stack([np.linspace(-20.0, 20.0, n), np.zeros(n)])
+        emf, lead = placed._source_emfs(wire, src, F_HZ, feeds, wire.ground, x, u, "vertical")
+        parts.append((x, emf, lead))
+    want = [through_line(wire, F_HZ, x, emf, lead) for x, emf, lead in parts]
+    forget()
+    through_line(wire, F_HZ, *parts[1])  # one grid's transfer function kept, the others not
+    got = through_line_grids(wire, F_HZ, parts)
+    assert len(got) == len(want)
+    for g, w in zip(got, want):
+        np.testing.assert_allclose(g, w, rtol=1e-13, atol=0)
+
+
 @pytest.mark.parametrize("pol", ["vertical", "both"])
 def test_pickup_of_a_termination_searchs_resistors_equals_each_alone(pol):
     # pickup hears the resistors tried on one wire at one place together (placed._load_variant_powers): each power
@@ -323,3 +347,61 @@ level = "S9"
     want = each.by_component[sky_rows_][:, 1:]
     np.testing.assert_allclose(got, want, rtol=1e-9)
     assert np.any(want > 0)  # the sky components the feed lines hear (a few are zero at these hours)
+
+
+GROUNDS = ("very dry ground", "moist loam", "salt marsh")
+
+
+@pytest.mark.parametrize("family", ["beverage", "unterminated"])
+def test_a_wires_line_over_several_grounds_at_once_equals_each_grounds(family):
+    # reciprocity.through_line_grounds (a spread's grounds in one array expression, each wire its own line and
+    # loads) gives through_line's current on each ground, to rounding
+    from snrgain.physics.reciprocity import through_line_grounds
+
+    wires = [from_si(family, length=200.0, height=2.0, bearing=0.4, ground=g) for g in GROUNDS]
+    x = even_samples(200.0, 90)
+    rng = np.random.default_rng(3)
+    emf = rng.normal(size=(3, len(x))) + 1j * rng.normal(size=(3, len(x)))
+    lead = rng.normal(size=(3, 2)) + 1j * rng.normal(size=(3, 2))
+    want = [complex(through_line(w, F_HZ, x, e[None], d)[0]) for w, e, d in zip(wires, emf, lead)]
+    np.testing.assert_allclose(through_line_grounds(wires, F_HZ, x, emf, lead), want, rtol=1e-13)
+    want = [complex(through_line(w, F_HZ, x, e[None], None)[0]) for w, e in zip(wires, emf)]
+    np.testing.assert_allclose(through_line_grounds(wires, F_HZ, x, emf, None), want, rtol=1e-13)
+
+
+@pytest.mark.parametrize("height", [1.0, None])
+def test_a_runs_emfs_and_current_over_several_grounds_at_once_equal_each_grounds(height):
+    # physics.feedline.run_emf_grounds and emf_currents_grounds (a spread's grounds at once, each its own line and
+    # coupling) give route_emf_from's EMFs to the bit and emf_current's current to rounding; raised and buried
+    from snrgain.physics.reciprocity import graded_samples
+
+    grounds = [from_si("beverage", length=200.0, height=2.0, bearing=0.0, ground=g).ground for g in GROUNDS]
+    fl = phys.FeedLine((5.0, 3.0), (40.0, -90.0), height, 0.0027, 0.0035, 40.0, choke_ohm=900.0)
+    x = graded_samples(fl.length_m, F_HZ, 12.0, 30.0)
+    n = len(phys.runs_points([fl], [x])[1])
+    rng = np.random.default_rng(4)
+    e = rng.normal(size=(3, n, 3)) + 1j * rng.normal(size=(3, n, 3))
+    emf, lead = phys.run_emf_grounds(fl, x, e)
+    cs = [phys.coupling(fl, F_HZ, g, rod_ohm=30.0, loop_ohm=800 - 90j, load_ohm=400.0) for g in grounds]
+    want = []
+    for g, c in enumerate(cs):
+        x_g, emf_g, lead_g = phys.route_emf_from(fl, x, e[g])
+        np.testing.assert_array_equal(emf[g], emf_g)
+        np.testing.assert_array_equal(lead[g], lead_g)
+        want.append(phys.emf_current(fl, c, x_g, emf_g, lead_g))
+    np.testing.assert_allclose(phys.emf_currents_grounds(fl, cs, x, emf, lead), want, rtol=1e-12)
+
+
+def test_amplitudes_of_several_antennas_are_each_antennas():
+    # placed.received_amplitudes_of (the key's other parts worked once) holds and reads what received_amplitudes
+    # does, one antenna at a time, to the bit
+    src = _source((60.0, 40.0), 3.0)
+    ants = [from_si("beverage", length=200.0, height=2.0, bearing=b, ground="moist loam") for b in (0.2, 1.4)]
+    ants += [from_si("vertical", height=6.0, ground="moist loam", position=(5.0, 5.0))]
+    ground = ants[0].ground
+    forget()
+    got = placed.received_amplitudes_of(ants, src, F_HZ, (0.0, 0.0), ground, kind="vertical")
+    forget()
+    want = [placed.received_amplitudes(a, src, F_HZ, (0.0, 0.0), ground, kind="vertical") for a in ants]
+    assert got == want
+    assert placed.received_amplitudes_of(ants, src, F_HZ, (0.0, 0.0), ground, kind="vertical") == want  # held

@@ -207,6 +207,28 @@ def test_on_another_ground_the_level_stays_read_on_its_antenna():
         assert abs(a["ballast"]) > 1e-3  # the ground does move it
 
 
+def test_a_levels_unit_component_kept_across_grounds_reads_the_same():
+    # each ground's reference reads a level again through the source's unit component, made once and kept: the same
+    # Fa as a fresh one gives, to the bit
+    from snrgain.memo import forget
+    from snrgain.model.spread import ground_nodes, on_ground
+    from snrgain.sky import noise
+
+    data = scenario()
+    data["uncertainty"]["ground"] = True
+    sc = resolve_sources(load(data))
+    src = next(s for s in sc.noise.local if s.level_dbm is not None)
+    for g, _ in ground_nodes(sc.site.ground, sc.site.ground_spread):
+        ref = on_ground(sc, sc.antennas, g)[0]
+
+        def gain(az, el, ref=ref):
+            return ref.gain_linear(sc.freq_hz, az, el)
+
+        forget()
+        fresh = noise.level_to_fa_db(src, sc.place, gain)
+        assert noise.level_to_fa_db(src, sc.place, gain) == fresh and len(noise._UNITS) == 1
+
+
 def test_placed_sources_under_another_reference():
     # A placed source's level is read on the reference in force (its pickup is carried from there to every antenna):
     # read on another antenna it is refused with the way out.  A placed source's fa stays where the file's reference

@@ -307,3 +307,22 @@ def test_end_fire_states_take_the_travel_time_delays_and_share_their_lines():
     assert [s["element_lines"] for s in table["states"]] == [[1, 2, 2, 3], [3, 2, 2, 1]]
     vf = ne.build["phasing_cable_velocity_factor"]
     assert table["lines_m"] == pytest.approx([t * 1e-9 * vf * C_M_PER_S for t in table["lines_ns"]])
+
+
+def test_the_site_plan_draws_a_switched_array_once_and_a_reversible_wire_both_ways():
+    # a four-square switched to four bearings stands once on the plan, under its own name with its states (its
+    # elements joined once, one legend entry); a reversible wire keeps both states, each with its own arrow
+    from snrgain.outputs.siteplan import plan_of
+
+    bev = {"name": "rev", "family": "beverage", "length": "150 m", "height": "2 m", "position": [-90, -80]}
+    data = scenario(
+        {**FOUR_SQUARE, "directions": [f"{b} deg" for b in BEARINGS]}, {**bev, "directions": ["45 deg", "225 deg"]}
+    )
+    data["site"]["lot"] = [[-100, -100], [100, -100], [100, 100], [-100, 100]]
+    plan = plan_of(load(data))
+    fours = [a for a in plan["antennas"] if a["name"].startswith("four-square")]
+    assert len(fours) == 4 and [bool(a["parts"]) for a in fours] == [True, False, False, False]
+    assert fours[0]["shown_as"] == "four-square (switched: NE, SE, SW, NW)"
+    wires = [a for a in plan["antennas"] if a["name"].startswith("rev")]
+    assert [p["kind"] for a in wires for p in a["parts"]] == ["wire", "wire"]
+    assert not any("shown_as" in a for a in wires)

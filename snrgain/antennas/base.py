@@ -113,6 +113,9 @@ class Antenna(ABC):
 
         out = copy.copy(self)
         out.params = self.params.model_copy(update={"position": (float(position_m[0]), float(position_m[1]))})
+        held = self.__dict__.get("_gain_key")
+        if held is not None and held[0] is self.params:  # the key leaves the position out: the same, not made again
+            out.__dict__["_gain_key"] = (out.params, held[1])
         return out
 
     def gain_key(self) -> str | None:

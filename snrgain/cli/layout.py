@@ -41,8 +41,9 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     A candidate with  place = { bearing = ["20 deg", "70 deg"], length = ["150 m", "300 m"] }  may stand
     anywhere on [site] lot, outside [site] keep_out areas, tx_clearance from the transmitting vertical
     when given (else half a wavelength for long wires; a loop, vertical or array is scored less what the
-    vertical costs it there, computed), 10 m from any other wire; its bearing and length stay in their ranges
-    (fixed where none is given).  Each is scored by its SNR gain over the reference toward the target
+    vertical costs it there, computed), 10 m from any other wire and from the antennas that stay where
+    written (an array's elements, a vertical, a loop); its bearing and length stay in their ranges
+    (fixed where none is given).  Each is scored by its nominal SNR gain over the reference toward the target
     nearest its bearing, with placed noise sources ([[noise.local]] position = [east, north]) heard where
     it stands.  The search is a grid with a local refinement: the same file gives the same layout.
 
@@ -64,6 +65,14 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     with progress(None, "layout: placements") as bar:
         layouts = problem.search(keep=keep, progress=bar.update)
     out = lay.as_dict(layouts)
+    unscored = lay.unscored_feed_lines(data)
+    notes = [
+        f"{name}: its feed line is not in the layout's score (its run depends on where the antenna stands); "
+        "write the layout (--write) and rank it to see what the feed line costs there"
+        for name in unscored
+    ]
+    if notes:
+        out["notes"] = notes
     best = layouts[0]
     if plot is not None:
         from snrgain.outputs import plots
@@ -78,6 +87,8 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
         emit_json(out)
         return
     _print(layouts, sc, unit=sc.site.length_unit)
+    for note in notes:
+        click.echo(f"note: {note}", err=True)
     if plot is not None:
         click.echo(f"wrote {plot}", err=True)
 
@@ -95,7 +106,7 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
         each = "; ".join(
             f"{d.name} {g:+.1f} dB toward {tgt}" for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets)
         )
-        t = Table(title=f"Layout {rank_no}: {each} (median SNR gain over {sc.reference.name})")
+        t = Table(title=f"Layout {rank_no}: {each} (nominal SNR gain over {sc.reference.name})")
         for col in ("antenna", "feed (E, N)", "toward", "length", "target", "SNR gain"):
             t.add_column(col, justify="left" if col in ("antenna", "target") else "right")
         for d, g, tgt in zip(lay.designs, lay.snr_gain_db, lay.targets):
@@ -109,6 +120,11 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
                 f"{g:+.1f} dB",
             )
         console.print(t)
+    console.print(
+        "Nominal SNR gain: the median over the target's hours at the site's own ground and median noise, as "
+        "'rank' gives it for the written layout (its 'nominal'); rank's headline median is taken over the spread "
+        "too (grounds, noise deciles, hours), so the two can differ."
+    )
     console.print(
         "Before you build: keep wires clear of power lines; call the utilities' locating service before driving "
         "ground rods; mark wires near the ground, they trip people and animals. Follow local codes."

@@ -62,8 +62,9 @@ def _interrupt_on_signals() -> None:
 
     Python runs a signal handler wherever the main thread is; if that is a finaliser (an object's ``__del__``, a
     weakref callback, which matplotlib has), the exception cannot propagate: Python would print "Exception
-    ignored" with a traceback and carry on.  The unraisable hook catches that case quietly and sends the signal
-    again a moment later from a helper thread, so it lands in ordinary code; and :func:`main` exits with the
+    ignored" with a traceback and carry on.  The unraisable hook catches that case quietly and a helper thread
+    sends the signal again until it lands in ordinary code (not in the hook itself, which a loaded machine can
+    let happen); and :func:`main` exits with the
     signal's code even if the work finished meanwhile."""
     import os
     import signal
@@ -71,8 +72,20 @@ def _interrupt_on_signals() -> None:
     import threading
 
     resend = []  # the unraisable hook's own signal, sent again after a finaliser swallowed the first
+    hooking = []  # set while the unraisable hook runs: a signal landing there is dropped (and sent again)
+    landed = threading.Event()  # set once Interrupted is raised in ordinary code's reach
+
+    def pester(signum):
+        # send the signal until it is raised outside the hook: on a loaded machine the first resend can land
+        # before the hook returns (up to 10 s, then the work carries on and main() still exits with its code)
+        for _ in range(200):
+            os.kill(os.getpid(), signum)
+            if landed.wait(0.05):
+                return
 
     def handler(signum, frame):
+        if hooking:  # inside the hook the exception could not propagate either: the helper thread sends it again
+            return
         if resend:
             resend.clear()
         elif _received:  # a second signal (or both tripped at once) while the first unwinds
@@ -81,6 +94,7 @@ def _interrupt_on_signals() -> None:
             _received.append(signum)
         for sig in (signal.SIGINT, signal.SIGTERM):
             signal.signal(sig, signal.SIG_IGN)
+        landed.set()
         raise Interrupted(signum)
 
     previous_hook = sys.unraisablehook
@@ -89,12 +103,15 @@ def _interrupt_on_signals() -> None:
         if not isinstance(args.exc_value, Interrupted):
             previous_hook(args)
             return
-        for sig in (signal.SIGINT, signal.SIGTERM):
-            signal.signal(sig, handler)
-        resend.append(args.exc_value.signum)
-        again = threading.Timer(0.01, os.kill, (os.getpid(), args.exc_value.signum))
-        again.daemon = True
-        again.start()
+        hooking.append(True)
+        try:
+            for sig in (signal.SIGINT, signal.SIGTERM):
+                signal.signal(sig, handler)
+            resend.append(args.exc_value.signum)
+            landed.clear()
+            threading.Thread(target=pester, args=(args.exc_value.signum,), daemon=True).start()
+        finally:
+            hooking.clear()
 
     for sig in (signal.SIGINT, signal.SIGTERM):
         try:

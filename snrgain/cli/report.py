@@ -169,12 +169,13 @@ def _same_looks(results, plan) -> bool:
 @handle_errors
 def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir, reference, band):
     """Write the figures for SCENARIO as PNG or SVG files into --dir."""
+    from snrgain.files import missing_folder
     from snrgain.outputs import plots
     from snrgain.outputs.drawing import Drawer
 
     d = Path(out_dir)
     if not d.is_dir():
-        raise FileNotFoundError(f"folder {d} does not exist")
+        raise missing_folder(d)
     names = list(only) or list(plots.FIGURES)
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
     with Drawer(fmt, modules=_RESULT_MODULES) as drawer:

@@ -147,6 +147,11 @@ def clearance_applies(sc, antenna) -> bool:
     return getattr(sc.site, "tx_clearance_m", None) is not None or not modelled(antenna)
 
 
+SAME_PLACE_M = 1.0
+"""Two candidates' wires whose plan views lie within this of each other everywhere (Hausdorff distance) [m] stand in
+one place: alternatives to compare (a choke or not, two heights), one of which can be built there."""
+
+
 def _one_antenna(a, b) -> bool:
     """True where ``a`` and ``b`` are states of one switched antenna (snrgain.scenario.antennas.SwitchedState)."""
     from snrgain.scenario.switched import switched_state
@@ -185,7 +190,9 @@ def site_notices(sc) -> list[Notice]:
         for b, t in wires[i + 1 :]:
             if _one_antenna(a, b):  # two states of one switched antenna are the same wire
                 continue
-            if s.crosses(t) or (s.intersects(t) and not s.touches(t)):
+            if s.hausdorff_distance(t) < SAME_PLACE_M:  # alternatives laid alike (choked or not, two heights)
+                out.append(Notice("wires-same-place", a.name, {"other": b.name}))
+            elif s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
     from snrgain.model.scatter import tx_antenna
 

@@ -265,13 +265,12 @@ def prepare(sc, antennas, powers: dict, *, ground=None, own: dict | None = None)
             if own is not None:
                 a = own[src.name, kind][at]
             else:
-                a = np.array(
-                    [
-                        placed.received_amplitudes(antennas[k], src, f, ref_m, ground, kind=kind)[0] if c else 0j
-                        for k, c in zip(ks, coherent)
-                    ],
-                    dtype=complex,
-                )
+                a = np.zeros(len(ks), dtype=complex)
+                if coherent.any():
+                    got = placed.received_amplitudes_of(
+                        [antennas[ks[j]] for j in np.flatnonzero(coherent)], src, f, ref_m, ground, kind=kind
+                    )
+                    a[coherent] = [v for v, _ in got]
             d[at] += np.where(coherent, np.abs(a + b) ** 2 - np.abs(a) ** 2, power)
         fl_powers[src.name], effects[src.name] = p, d
     lines_ = {k: (fl, c) for k, (fl, c, _) in out.items()}
@@ -355,15 +354,51 @@ def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
         routes = list(_routes(sc, antennas).values())
     except ValueError:
         return []
-    out = []
     todo = _routes_not_held(routes, src, kind, freq_hz, ground)
-    for (key, fl, x), q, z in zip(todo, *_points_of(todo)):
+    where = _source_key(src, kind, freq_hz, ground)
+    return [(q, z, RouteKeep(key, fl, x, where, ground)) for (key, fl, x), q, z in zip(todo, *_points_of(todo))]
 
-        def keep(part, key=key, fl=fl, x=x):
-            _memo(key, lambda: phys.route_emf_from(fl, x, part))
 
-        out.append((q, z, keep))
-    return out
+class RouteKeep:
+    """:func:`route_points_ahead`'s ``keep`` of one route, a placed source's dipole and a ground: called with the
+    field at the route's points, it puts the route's EMFs in the memo; :func:`keep_routes_grounds` keeps one route
+    over a spread's grounds together."""
+
+    __slots__ = ("key", "fl", "x", "where", "ground")
+
+    def __init__(self, key, fl, x, where, ground):
+        self.key, self.fl, self.x, self.where, self.ground = key, fl, x, where, ground
+
+    def __call__(self, part) -> None:
+        _memo(self.key, lambda: phys.route_emf_from(self.fl, self.x, part))
+
+
+def keep_routes_grounds(keeps, e: np.ndarray, freq_hz: float) -> None:
+    """Each of ``keeps`` (:class:`RouteKeep`: one route from one source's dipole over each of a spread's grounds, the
+    same samples) from its ground's field ``e`` (G, N, 3) at the route's points: the route's EMFs on each ground and
+    its current through the route's canonical coupling (:func:`canonical_coupling`; :func:`_route_current` scales
+    it to each antenna end), both worked over the grounds in one array expression
+    (snrgain.physics.feedline.run_emf_grounds, emf_currents_grounds) rather than ground by ground in
+    :func:`prepare`."""
+    first = keeps[0]
+    route = _route_key(first.fl)
+    if not all(isinstance(k, RouteKeep) for k in keeps) or any(
+        _route_key(k.fl) != route or not (k.x is first.x or np.array_equal(k.x, first.x)) for k in keeps
+    ):
+        for keep, part in zip(keeps, e):
+            keep(part)
+        return
+    fl, x = first.fl, first.x
+    emf, lead = phys.run_emf_grounds(fl, x, e)
+    for g, keep in enumerate(keeps):
+        _memo(keep.key, lambda g=g: (x, emf[g], lead[g]))
+    todo = [g for g, k in enumerate(keeps) if _unit_key(route, k.where) not in _MEMO]
+    if not todo:
+        return
+    units = [_canonical_unit(fl, route, freq_hz, keeps[g].ground) for g in todo]
+    currents = phys.emf_currents_grounds(fl, units, x, emf[todo], lead[todo])
+    for g, unit, current in zip(todo, units, currents):
+        _memo(_unit_key(route, keeps[g].where), lambda unit=unit, current=current: (unit, complex(current)))
 
 
 def _points_of(todo) -> tuple[list, list]:
@@ -372,12 +407,10 @@ def _points_of(todo) -> tuple[list, list]:
     ground of a spread where the shield's line does not set the samples, :data:`_POINTS`)."""
     if not todo:
         return [], []
-    xs = tuple(t[2] for t in todo)
     key = tuple((_route_key(t[1]), id(t[2])) for t in todo)
-    held = _POINTS.get(key, lambda: (xs, *_points_worked(todo)))
-    if any(a is not b for a, b in zip(held[0], xs)):  # another samples' array took a freed one's id
-        return _points_worked(todo)
-    return held[1], held[2]
+    # the samples are held with their points: no other array can take their ids while the entry stands
+    _, q, z = _POINTS.get(key, lambda: (tuple(t[2] for t in todo), *_points_worked(todo)))
+    return q, z
 
 
 def _points_worked(todo) -> tuple[list, list]:
@@ -389,7 +422,7 @@ def _points_worked(todo) -> tuple[list, list]:
 
 _POINTS = Memo(64, max_bytes=32 * 2**20)
 """:func:`_points_of`' points and heights, by the routes and the ids of their samples (held with them, so the ids
-stay their own, and checked on a hit)."""
+stay their own)."""
 
 
 def _routes_not_held(routes, src, kind, freq_hz, ground) -> list:
@@ -418,6 +451,17 @@ def _prefetch_route_emfs(routes, src, kind, freq_hz, ground) -> None:
     # route_emf takes the field once, at route_points of the same samples: each route's part, worked together
     for (key, _, _), emfs in zip(todo, phys.runs_emf_from(fls, xs, e)):
         _memo(key, lambda emfs=emfs: emfs)
+
+
+def _canonical_unit(fl, route: tuple, freq_hz: float, ground) -> phys.Coupling:
+    """The route's canonical coupling on ``ground`` (:func:`canonical_coupling`: its line and Z_th, the antenna end
+    shorted), kept by route, ground and frequency (every placed source asks for it again)."""
+    g = None if ground is None else (ground.conductivity_s_per_m, ground.permittivity)
+
+    def make():
+        return phys.Coupling(fl.line(freq_hz, ground), phys.thevenin_impedance(fl, freq_hz, ground), 0j, 1.0 + 0j, 1.0)
+
+    return _memo(("canonical", route, g, float(freq_hz)), make)
 
 
 def _route_current(fl, c, src, kind, freq_hz, ground) -> complex:
@@ -590,10 +634,8 @@ def _sky_canonical(fl, unit, freq_hz: float, azimuth_rad, elevation_rad, ground)
     key = ("sky", _route_key(fl), g, *where)
 
     def make():
-        jkc, phase_l, wave = _PHASES.get(
-            (fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground)
-        )
-        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=(jkc, phase_l), wave=wave)
+        terms, wave = _PHASES.get((fl.start_m, fl.end_m, *where), lambda: _sky_phase(fl, freq_hz, az, el, ground))
+        return phys.sky_gain(fl, unit, freq_hz, az, el, ground, phase=terms, wave=wave)
 
     return _memo(key, make)
 
@@ -615,17 +657,17 @@ _DIRECTIONS = Memo(64)
 
 
 _PHASES = Memo(64, max_bytes=64 * 2**20)
-"""A run's :func:`snrgain.physics.feedline.sky_phase` on a set of directions and the plane wave it was worked from
+"""A run's :func:`snrgain.physics.feedline.sky_terms` on a set of directions and the plane wave they were worked from
 (what of it does not depend on the ground), by its ends, the frequency and the directions: the same over every
 ground (a spread's nodes) and cable."""
 
 
 def _sky_phase(fl, freq_hz, az, el, ground) -> tuple:
-    """(j k c, e^{j k c L}, the plane wave) of a run (:data:`_PHASES`)."""
+    """(the run's snrgain.physics.feedline.sky_terms, the plane wave) (:data:`_PHASES`)."""
     from snrgain.antennas.longwire import plane_wave
 
     wave = plane_wave(freq_hz, az, el, bearing_rad=fl.bearing_rad, ground=ground)
-    return (*phys.sky_phase(fl, freq_hz, wave), wave)
+    return phys.sky_terms(fl, freq_hz, wave), wave
 
 
 def no_pickup(prep: Prepared) -> dict:

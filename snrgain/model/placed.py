@@ -68,6 +68,7 @@ from snrgain.physics.quadrature import even_samples
 from snrgain.physics.reciprocity import LEAD_POINTS, sample_steps, through_lines, wire_currents_in_field  # noqa: F401 (the module's API)
 from snrgain.physics.reciprocity import lead_rule as _lead_rule
 from snrgain.physics.reciprocity import through_line as _through_line
+from snrgain.physics.reciprocity import through_line_grids as _through_line_grids
 from snrgain.physics.reciprocity import wire_emfs as _emfs
 
 POLARISATION_SHARE = {"vertical": (1.0, 0.0), "horizontal": (0.0, 1.0), "both": (0.5, 0.5)}
@@ -285,8 +286,8 @@ def _currents_on_grids(wire, src, freq_hz, feeds, ground, grids, u, kind=None) -
             lead[up] = (e[n_along:, 2].reshape(-1, LEAD_POINTS) @ wq) * h / 2
     out = np.zeros(len(feeds), dtype=complex)
     a0 = l0 = 0
+    parts = []
     for x, which in grids:
-        which = np.asarray(which)
         n = len(which)
         part = emf[a0 : a0 + n * len(x)].reshape(n, -1)
         a0 += n * len(x)
@@ -294,7 +295,9 @@ def _currents_on_grids(wire, src, freq_hz, feeds, ground, grids, u, kind=None) -
         if has_leads:
             lead_g = lead[l0 : l0 + 2 * n]
             l0 += 2 * n
-        out[which] = _through_line(wire, freq_hz, x, part, lead_g)
+        parts.append((x, part, lead_g))
+    for (_, which), current in zip(grids, _through_line_grids(wire, freq_hz, parts)):  # the grids' lines at once
+        out[np.asarray(which)] = current
     return out
 
 
@@ -386,8 +389,7 @@ def fields_ahead(sc, per_ground) -> None:
                     same.append((q, z, [plan]))
             for q, z, plans in same:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
-                for plan, part in zip(plans, e):
-                    _prefetch_keep(plan, part)
+                _prefetch_keep_grounds(plans, e)
 
 
 def _same_bits(a: np.ndarray, b: np.ndarray) -> bool:
@@ -691,6 +693,82 @@ def _prefetch_keep(plan: _Plan, e: np.ndarray) -> None:
         _FIELDS.get(key, lambda part=part: part)
     for (_, _, keep), part in zip(plan.extra, parts[len(todo) + len(compact) :]):
         keep(part)
+
+
+def _prefetch_keep_grounds(plans: list, e: np.ndarray) -> None:
+    """:func:`_prefetch_keep` of each of ``plans`` (one per ground of a spread, their points the same bit for bit) from
+    the field ``e`` (G, N, 3) over their grounds: each wire's EMFs, line transfer and port response
+    (:func:`_wires_keep_grounds`) and each route's EMFs and current (snrgain.model.feedline.keep_routes_grounds)
+    worked over the grounds in one array expression, not ground by ground; plans not made alike (other parts) are
+    kept one by one."""
+    first = plans[0]
+    sizes = [len(q) for q, _ in first.parts()]
+    if len(plans) < 2 or not all(_alike(first, plan, sizes) for plan in plans[1:]):
+        for plan, part in zip(plans, e):
+            _prefetch_keep(plan, part)
+        return
+    from snrgain.model import feedline
+
+    at = np.concatenate([[0], np.cumsum(sizes)])
+    for j in range(len(first.todo)):
+        _wires_keep_grounds(plans, j, e[:, at[j] : at[j + 1]])
+    c0 = len(first.todo)
+    for j in range(len(first.compact)):
+        for plan, part in zip(plans, e[:, at[c0 + j] : at[c0 + j + 1]]):
+            _FIELDS.get(plan.compact[j][0], lambda part=part: part)
+    x0 = c0 + len(first.compact)
+    for j in range(len(first.extra)):
+        keeps = [plan.extra[j][2] for plan in plans]
+        feedline.keep_routes_grounds(keeps, e[:, at[x0 + j] : at[x0 + j + 1]], first.freq_hz)
+
+
+def _alike(first: _Plan, plan: _Plan, sizes: list) -> bool:
+    """Whether ``plan`` holds the same parts as ``first`` (another ground's): the same sizes, the same wires' samples
+    and whether their amplitudes are kept."""
+    if len(plan.todo) != len(first.todo) or len(plan.compact) != len(first.compact):
+        return False
+    if len(plan.extra) != len(first.extra) or [len(q) for q, _ in plan.parts()] != sizes:
+        return False
+    return all(
+        a[6] == b[6] and (a[3] is b[3] or np.array_equal(a[3], b[3])) and len(a[2]) == len(b[2])
+        for a, b in zip(first.todo, plan.todo)
+    )
+
+
+def _wires_keep_grounds(plans: list, j: int, e: np.ndarray) -> None:
+    """The ``j``-th wire of each of ``plans`` (the same wire over each ground) from its ground's field ``e``
+    (G, N, 3) at its points: its EMFs (as :func:`_emfs_from` makes them) and, where they are kept, its amplitudes
+    (as :func:`_prefetch_keep`), each line's transfer over the grounds in one array expression
+    (snrgain.physics.reciprocity.through_line_grounds)."""
+    from snrgain.antennas.longwire import port_response
+    from snrgain.physics.reciprocity import through_line_grounds
+
+    entries = [plan.todo[j] for plan in plans]
+    _, a0, feeds, x, u, _, amplitudes = entries[0]
+    h = a0.wire_height_m()
+    n = len(x) * len(feeds)
+    emf = e[:, :n, 0] * u[0] + e[:, :n, 1] * u[1]  # the points along the wire: the first n
+    lead = None
+    if a0.has_leads and h > 0:
+        _, wq = _lead_rule()  # up each lead: LEAD_POINTS each, feed end first
+        lead = (e[:, n:, 2].reshape(len(e), -1, LEAD_POINTS) @ wq) * h / 2
+    held = [
+        _EMFS.get(key, lambda g=g: (emf[g].reshape(len(feeds), -1), None if lead is None else lead[g]))
+        for g, (key, *_) in enumerate(entries)
+    ]
+    if not amplitudes:
+        return
+    plan = plans[0]
+    src, freq_hz, reference_m, kind = plan.src, plan.freq_hz, plan.reference_m, plan.kind
+    wires = [t[1] for t in entries]
+    emfs = np.concatenate([v[0] for v in held])
+    leads = None if lead is None else np.stack([v[1] for v in held])
+    i_f = through_line_grounds(wires, freq_hz, x, emfs, leads)
+    loads = np.array([w.receiver_load_ohm(freq_hz) for w in wires], dtype=float)
+    amp = port_response(freq_hz, i_f, load_ohm=loads, elevation_rad=np.full(len(wires), src.elevation_rad))
+    for a, plan, v in zip(wires, plans, amp):
+        held_key = _amplitudes_key(a, src, freq_hz, reference_m, plan.ground, None, kind)
+        _AMPLITUDES.get(held_key, lambda a=a, v=v: (a, (complex(v), 0j)))
 
 
 def _compact_points(antennas, src, freq_hz: float, reference_m, ground, kind: str, p: np.ndarray, seen: set) -> list:
@@ -1065,10 +1143,27 @@ def received_amplitudes(
     return held[1]
 
 
+def received_amplitudes_of(antennas, src, freq_hz: float, reference_m, ground, *, kind) -> list:
+    """:func:`received_amplitudes` of each of ``antennas`` from one of a placed source's dipoles (at their own
+    places), the key's parts other than the antenna worked once (a pass of the products asks for every antenna's)."""
+    tail = _amplitudes_tail(src, freq_hz, reference_m, ground, None, kind)
+    return [
+        _AMPLITUDES.get(
+            (id(a), *tail),
+            lambda a=a: (a, _received_amplitudes(a, src, freq_hz, reference_m, ground, at_m=None, kind=kind)),
+        )[1]
+        for a in antennas
+    ]
+
+
 def _amplitudes_key(antenna, src, freq_hz, reference_m, ground, at_m, kind) -> tuple:
     """:data:`_AMPLITUDES`' key: the antenna object and the rest of what enters its amplitudes."""
+    return (id(antenna), *_amplitudes_tail(src, freq_hz, reference_m, ground, at_m, kind))
+
+
+def _amplitudes_tail(src, freq_hz, reference_m, ground, at_m, kind) -> tuple:
+    """:func:`_amplitudes_key` but the antenna."""
     return (
-        id(antenna),
         field_vector,  # the function itself (a test may put another in its place)
         _source_key(src, kind),
         float(src.elevation_rad),
@@ -1120,6 +1215,12 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
     incident plus ground-reflected (Fresnel coefficients), phase 0 at the origin: vertical polarisation ("v", its
     vertical part cos(el) [exp(+j k z sin el) + R_v exp(-j k z sin el)] as the families' patterns take it) or
     horizontal ("h")."""
+    return plane_wave_fields(freq_hz, points_m, azimuth_rad, elevation_rad, ground, pols=(pol,))[0]
+
+
+def plane_wave_fields(freq_hz: float, points_m, azimuth_rad: float, elevation_rad: float, ground, pols=("v", "h")):
+    """:func:`plane_wave_field` of each polarisation of ``pols``, the incident and reflected phases at the points
+    worked once for them all (the same values)."""
     from snrgain.physics.ground import reflection_coefficients
 
     k = 2 * np.pi * freq_hz / C_M_PER_S
@@ -1131,10 +1232,13 @@ def plane_wave_field(freq_hz: float, points_m, azimuth_rad: float, elevation_rad
     r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([elevation_rad]), freq_hz))
     direct = np.exp(1j * k * pts @ toward)[:, None]
     reflected = np.exp(1j * k * pts @ mirror)[:, None]
-    if pol == "v":
-        return direct * np.array([-se * sa, -se * ca, ce]) + r_v * reflected * np.array([se * sa, se * ca, ce])
-    p_h = np.array([ca, -sa, 0.0])
-    return (direct + r_h * reflected) * p_h
+    out = []
+    for pol in pols:
+        if pol == "v":
+            out.append(direct * np.array([-se * sa, -se * ca, ce]) + r_v * reflected * np.array([se * sa, se * ca, ce]))
+        else:
+            out.append((direct + r_h * reflected) * np.array([ca, -sa, 0.0]))
+    return out
 
 
 def has_place(antenna) -> bool:
@@ -1166,8 +1270,9 @@ def _through_currents(antenna, src, freq_hz: float, at, ground, kind: str, segme
     el = float(src.elevation_rad)
     rv, rh = antenna.complex_response(freq_hz, np.array([az]), np.array([el]))
     best = None
-    for pol, r in (("v", complex(rv[0])), ("h", complex(rh[0]))):
-        v_pw = np.einsum("ni,ni,n->", plane_wave_field(freq_hz, pts, az, el, ground, pol), dirs, cur)
+    waves = plane_wave_fields(freq_hz, pts, az, el, ground)  # both polarisations' fields from one pair of phases
+    for wave, r in zip(waves, (complex(rv[0]), complex(rh[0]))):
+        v_pw = np.einsum("ni,ni,n->", wave, dirs, cur)
         if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
             best = (r, v_pw)
     if best is None or best[0] == 0:
@@ -1210,8 +1315,12 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         if keys is None:
             keys = _variant_keys(antennas, sc.freq_hz, ref_m)
         _load_variant_powers(antennas, src, sc.freq_hz, ref_m, ground, p, keys)
-        for k in np.flatnonzero(~np.isfinite(p)):
-            p[k] = received_power(antennas[k], src, sc.freq_hz, ref_m, ground)
+        todo = np.flatnonzero(~np.isfinite(p))
+        if len(todo):  # received_power of each, the dipoles' powers added
+            p[todo] = 0.0
+            for kind, _ in dipoles(src):
+                got = received_amplitudes_of([antennas[k] for k in todo], src, sc.freq_hz, ref_m, ground, kind=kind)
+                p[todo] += [abs(a_v) ** 2 + abs(a_h) ** 2 for a_v, a_h in got]
         if not p[0] > 0:
             raise ValueError(f"noise.local {src.name!r}: the reference antenna picks up nothing of it")
         scale = p / p[0]

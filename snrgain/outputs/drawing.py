@@ -31,8 +31,7 @@ import os
 import pickle
 from collections.abc import Callable, Iterator, Sequence
 
-ENV_WORKERS = "SNRGAIN_WORKERS"
-"""Environment variable: the most worker processes to draw with (1: draw in this process)."""
+from snrgain.processes import worker_start, workers
 
 _JOBS: Sequence[tuple[Callable, str, dict]] = ()
 """The jobs of the current drawing, read by forked workers (set before the pool forks)."""
@@ -91,8 +90,12 @@ def save_figure(fig, target, fmt: str, **savefig) -> None:
     dropped for SVG."""
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
+    from snrgain.outputs.canvas import svg_backend
+
     if fmt != "png":
         savefig.pop("pil_kwargs", None)
+    if fmt == "svg" and savefig.get("backend") is None and svg_backend():
+        savefig["backend"] = svg_backend()  # the SVG canvas that measures each text once (the figures' processes)
     if fmt == "png" and _png_one_draw(fig, target, **savefig):
         return
     if fmt == "svg" and _svg_one_draw(fig, target, **savefig):
@@ -168,8 +171,7 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
 
     restore = _tight_bbox.adjust_bbox(fig, Bbox.from_extents(-m, -m, w + m, h + m), canvas.get_renderer())
     try:
-        with ticks_once(fig):
-            canvas.draw()
+        canvas.draw()
         image = np.asarray(canvas.buffer_rgba())
     finally:
         restore()
@@ -187,7 +189,7 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
     return True
 
 
-def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=None, **rest) -> bool:
+def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=None, backend=None, **rest) -> bool:
     """Write ``fig`` as ``savefig(target, format="svg", bbox_inches="tight", metadata=metadata)`` would, with one
     draw: savefig draws the figure widened by :data:`MARGIN_INCHES` on every side (a box given to savefig, so it
     does not measure first), the artists' box is measured at the end of that draw with its own renderer (each text
@@ -223,8 +225,9 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     buf = io.BytesIO()
     fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
     try:
-        with ticks_once(fig):
-            fig.savefig(buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata)
+        fig.savefig(
+            buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata, backend=backend
+        )
     finally:
         fig.canvas.mpl_disconnect(cid)
         if engine is not None:
@@ -241,7 +244,7 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     header = re.compile(r'<svg([^>]*?) width="[^"]*" height="[^"]*" viewBox="[^"]*"')
     if len(header.findall(text, 0, 2000)) != 1:
         return False
-    fmt = mpl.backends.backend_svg._short_float_fmt
+    fmt = svg_number
     text = header.sub(
         lambda k: (
             f'<svg{k.group(1)} width="{fmt(x1 - x0)}pt" height="{fmt(bottom - top)}pt" '
@@ -259,40 +262,10 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     return True
 
 
-@contextlib.contextmanager
-def ticks_once(fig):
-    """A context in which each axis of ``fig`` places its ticks once for as long as nothing it places them by
-    changes (its view limits, its axes' box, the figure's resolution), not at every ask: a draw asks each axis for
-    its ticks as it draws them and again as it places the axis' label, the box measured after the draw (an SVG's,
-    :func:`_svg_one_draw`) once more, every time finding the tick positions and formatting their labels anew (a
-    tenth of an SVG figure's time).  The same ticks, labels and picture; the axes as they were after."""
-    axes = [axis for ax in fig.axes for axis in ax._axis_map.values() if "_update_ticks" not in vars(axis)]
-    for axis in axes:
-        axis._update_ticks = _placed_once(axis, axis._update_ticks)
-    try:
-        yield
-    finally:
-        for axis in axes:
-            vars(axis).pop("_update_ticks", None)
-
-
-def _placed_once(axis, update):
-    """``update`` (an axis' ``_update_ticks``) answered again while its inputs stay as they were."""
-    kept: list = []
-
-    def once():
-        key = (
-            tuple(float(v) for v in axis.get_view_interval()),
-            tuple(axis.axes.bbox.bounds),
-            axis.get_figure(root=True).dpi,
-        )
-        if kept and kept[0] == key:
-            return list(kept[1])
-        ticks = update()
-        kept[:] = [key, list(ticks)]
-        return ticks
-
-    return once
+def svg_number(x: float) -> str:
+    """A number as the SVG writer writes its sizes and view box: fixed point, six decimals, trailing zeros and a
+    bare point dropped (``72.5``, ``432``)."""
+    return f"{x:f}".rstrip("0").rstrip(".")
 
 
 def _write_png(target, rgba, dpi: float, pil_kwargs: dict | None) -> None:
@@ -401,35 +374,17 @@ def tight_box(fig, fmt: str, dpi: float | str | None = None, pad: float | None =
 def warm_up(fmt: str = "png", modules: Sequence[str] = (), *, draw: bool = True) -> None:
     """Import matplotlib, its writer for ``fmt`` and ``modules``, and (``draw``) draw a small figure once, so the
     fonts are found and the first-use work done before the real figures (and before workers fork: each inherits
-    it).  matplotlib's 3D axes, which no figure here uses, are left unimported (:func:`_import_matplotlib`)."""
+    it)."""
     import importlib
 
-    _import_matplotlib()
+    import matplotlib.figure  # noqa: F401
+
+    import snrgain.outputs.canvas  # noqa: F401  (the Agg and SVG writers)
+
     for name in modules:
         importlib.import_module(name)
     if draw:
         warm_up_figure(fmt)
-
-
-def _import_matplotlib() -> None:
-    """Import matplotlib's figure and axes without its 3D axes: matplotlib.projections registers them by
-    importing mpl_toolkits.mplot3d (a tenth of matplotlib's import time), which, where it fails, matplotlib lets go
-    with a warning and leaves the 3D projection out.  Here it is made to fail, quietly, and importable again
-    after (an ``Axes3D`` asked for later is imported then, unregistered).  Nothing where matplotlib's axes are
-    imported already."""
-    import sys
-    import warnings
-
-    if "matplotlib.projections" in sys.modules or "mpl_toolkits.mplot3d" in sys.modules:
-        return
-    sys.modules["mpl_toolkits.mplot3d"] = None  # an import of it raises ImportError
-    try:
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            import matplotlib.figure  # noqa: F401
-    finally:
-        if sys.modules.get("mpl_toolkits.mplot3d", 0) is None:
-            del sys.modules["mpl_toolkits.mplot3d"]
 
 
 def warm_up_figure(fmt: str = "png") -> None:
@@ -443,23 +398,6 @@ def warm_up_figure(fmt: str = "png") -> None:
     ax.legend(fontsize=8)
     fig.tight_layout()
     figure_bytes(fig, fmt, dpi=72, bbox_inches="tight")
-
-
-def worker_start(parent: int) -> None:
-    """In each worker: die with the command (Linux PR_SET_PDEATHSIG), so a killed command leaves no worker behind
-    holding its output pipes; leave Ctrl-C and SIGTERM to the command, which stops the drawing cleanly."""
-    import signal
-
-    signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
-    try:
-        import ctypes
-
-        ctypes.CDLL(None, use_errno=True).prctl(1, signal.SIGKILL)  # 1: PR_SET_PDEATHSIG
-    except (OSError, AttributeError):  # not Linux: the pool's own shutdown still ends the workers
-        pass
-    if os.getppid() != parent:  # the command died before the line above took effect
-        os._exit(1)
 
 
 def _warmed(fmt: str) -> bool:
@@ -480,24 +418,6 @@ def _drawing_worker_start(parent: int) -> None:
 def _run(index: int) -> bytes:
     make, fmt, savefig = _JOBS[index]
     return figure_bytes(make(), fmt, **savefig)
-
-
-def workers(count: int) -> int:
-    """How many processes to draw ``count`` figures with: the cores this process may use, at most the figures and
-    $SNRGAIN_WORKERS; 1 where fork is not available."""
-    try:
-        cores = len(os.sched_getaffinity(0))
-    except AttributeError:  # not on Linux
-        cores = os.cpu_count() or 1
-    limit = os.environ.get(ENV_WORKERS, "").strip()
-    if limit:
-        try:
-            cores = min(cores, max(1, int(limit)))
-        except ValueError:
-            raise ValueError(f"{ENV_WORKERS}={limit!r}: give a whole number of processes, 1 or more") from None
-    if "fork" not in multiprocessing.get_all_start_methods():
-        return 1
-    return max(1, min(cores, count))
 
 
 def draw_all(

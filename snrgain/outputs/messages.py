@@ -71,6 +71,11 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return f"{n.antenna}: runs off the lot, {far} beyond its edge"
     if n.code == "in-keep-out":
         return f"{n.antenna}: enters the keep-out area {v['area']!r}"
+    if n.code == "wires-same-place":
+        return (
+            f"{n.antenna}: lies where {v['other']} lies; fine as alternatives to compare, but only one can be "
+            "built there (built side by side, close wires couple and each changes the other's pattern)"
+        )
     if n.code == "wires-cross":
         return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
     if n.code == "near-tx-vertical":

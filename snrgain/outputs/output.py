@@ -466,15 +466,23 @@ def feed_line_text(fl: dict, unit: str) -> str:
     choke = f", choke {fl['choke_ohm']:.0f} ohm" if fl["choke_ohm"] else ", no choke"
     cost = max((c for c in fl["snr_gain_cost_db"] if np.isfinite(c)), default=float("nan"))
     cost = round(cost, 1) + 0.0  # a cost below 0.05 dB, of either sign, reads 0.0 (not -0.0)
+    if cost < 0:  # only a placed source's pickup, added as phasors, can lower the noise: say so, and how fragile
+        effect = (
+            f"adds {-cost:.1f} dB of SNR gain here (its pickup of a placed source partly cancels the antenna's; "
+            "another route or cable length can turn that into a loss)"
+        )
+    else:
+        effect = f"costs {cost:.1f} dB of SNR gain"
     quiet = (
-        f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm puts it {fl['quiet_below_db']:g} dB below the antenna's own"
+        f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm or more puts it {fl['quiet_below_db']:g} dB below the "
+        "antenna's own"
         if fl["choke_for_quiet_ohm"] > 0
         else f"it is {fl['quiet_below_db']:g} dB or more below the antenna's own"
     )
     return (
         f"feed line {length_text(fl['length_m'], unit, 0)} {run} ({iso}{choke}; station ground "
-        f"{fl['station_ground_ohm']:g} ohm): {fl['noise_share_db']:+.1f} dB of the noise, costs {cost:.1f} dB of SNR "
-        f"gain; {quiet}; ground the shield where it enters and bond the grounds per the local electrical code"
+        f"{fl['station_ground_ohm']:g} ohm): {fl['noise_share_db']:+.1f} dB of the noise, {effect}; {quiet}; "
+        "ground the shield where it enters and bond the grounds per the local electrical code"
     )
 
 

@@ -190,7 +190,7 @@ def blank_steps(kinds):
             yield
     for _, axes in made:
         for ax in axes:
-            for axis in ax._axis_map.values():
+            for axis in (ax.xaxis, ax.yaxis):
                 axis.get_major_ticks(TICKS_AHEAD)
         yield
 
@@ -837,8 +837,11 @@ def ranking_chart(results, *, ax=None):
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
     lo_x, hi_x = axes[2].get_xlim()
     axes[2].set_xlim(lo_x, hi_x + 0.15 * (hi_x - lo_x))  # room for the values beside the bars
-    for yi, v in zip(y, margin):
-        axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8)
+    short = [  # the values below the target, whose labels may run over its line: placed beyond it if they do (below)
+        (axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8), v < target)
+        for yi, v in zip(y, margin)
+    ]
+    short = [t for t, below in short if below]
     axes[2].set_xlabel("margin over the chain's floor (dB)")
     axes[2].set_title("External-noise margin\n(worst hour; '!' below target)", fontsize=10, y=1.0)
     for ax in axes:
@@ -852,7 +855,23 @@ def ranking_chart(results, *, ax=None):
     # value stands: the band is the legends' measured height, now that the panels' size is known
     legends = [axes[0].legend(fontsize=8, loc="upper left"), axes[2].legend(fontsize=8, loc="upper right")]
     _headroom(fig, axes[0], legends)
+    _clear_of_line(fig, axes[2], short, target)
     return fig
+
+
+def _clear_of_line(fig, ax, labels, x: float) -> None:
+    """Move each of ``labels`` (texts left-aligned at a bar's end, left of ``x``) that would touch or cross the
+    vertical line at ``x`` [data] to start at the line instead (its leading space the gap); measured, not drawn, now
+    that the panel's size is known."""
+    if not labels:
+        return
+    renderer = _measurer(fig)
+    line = ax.transData.transform((x, 0.0))[0]
+    gap = 1.0 * fig.dpi / 72.0  # a point clear of the line
+    for t in labels:
+        box = t.get_window_extent(renderer)
+        if box.x1 + gap > line:
+            t.set_x(x)
 
 
 def _headroom(fig, ax, legends) -> None:
@@ -1000,7 +1019,8 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         ax.plot(fx[1:], fy[1:], marker="s", color="0.25", ms=5, ls="none", zorder=3)
     for a in plan["antennas"]:
         lk = looks[a["name"]]
-        label = a["name"] + (" (reference)" if a["reference"] else "")
+        label = a.get("shown_as") or a["name"]  # a switched antenna's states that stand as one: its own name
+        label += " (reference)" if a["reference"] else ""
         note = f"; {a['note']}" if a.get("note") else ""  # in its own entry it would stand in the other column
         for p in a["parts"]:
             px, py = xy(p["coords"])
@@ -1018,7 +1038,10 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                     zorder=5,
                 )
             elif p["kind"] == "elements":
-                ax.plot(px, py, color=lk.color, ls=lk.linestyle, lw=0.8, zorder=4)
+                # joined around their centre (a four-square's square, not a Z through the elements' order)
+                turn = np.argsort(np.arctan2(py - np.mean(py), px - np.mean(px)))
+                ring = np.append(turn, turn[:1]) if len(turn) > 2 else turn
+                ax.plot(px[ring], py[ring], color=lk.color, ls=lk.linestyle, lw=0.8, zorder=4)
                 ax.plot(
                     px, py, marker=lk.marker, color=lk.color, mec="black", ms=8, ls="none", label=label + note, zorder=5
                 )
@@ -1086,10 +1109,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     ax.grid(alpha=0.3)
     x_lo, x_hi = ax.get_xlim()
     y_lo, y_hi = ax.get_ylim()
+    fx, fy = _north_corner(_plan_points(plan, k), (x_lo, x_hi), (y_lo, y_hi))
     ax.annotate(
         "N",
-        xy=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.04 * (y_hi - y_lo)),
-        xytext=(x_hi - 0.06 * (x_hi - x_lo), y_hi - 0.16 * (y_hi - y_lo)),
+        xy=(fx, fy + 0.12 * (y_hi - y_lo)),
+        xytext=(fx, fy),
         ha="center",
         fontsize=12,
         fontweight="bold",
@@ -1101,6 +1125,38 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     if own:  # below the plot: its axis label, then the legend's rows
         _place(fig, left=0.9, right=0.3, top=0.6, bottom=0.9 + 0.2 * ((entries + 1) // 2))
     return fig
+
+
+def _plan_points(plan: dict, k: float) -> np.ndarray:
+    """Every point a plan draws (antennas, wires every few metres, sources, keep-outs, the vertical), scaled by
+    ``k`` to the plan's unit: (n, 2)."""
+    pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
+    for a in plan["antennas"]:
+        for p in a["parts"]:
+            if p["kind"] == "wire":
+                (e0, n0), (e1, n1) = p["coords"][0], p["coords"][-1]
+                t = np.linspace(0.0, 1.0, 40)
+                pts += list(zip(e0 + t * (e1 - e0), n0 + t * (n1 - n0)))
+    pts += [xy for _, xy in plan.get("sources", [])] + [c for _, cs in plan.get("keep_out", []) for c in cs]
+    pts += [plan["tx"]] if plan.get("tx") is not None else []
+    return np.asarray(pts, dtype=float).reshape(-1, 2) * k
+
+
+def _north_corner(points: np.ndarray, xlim, ylim) -> tuple[float, float]:
+    """Where the north arrow goes: (x, y of the "N" under its tail) in the corner of the axes (top right first, then
+    top left, bottom right, bottom left) whose arrow box holds the fewest drawn ``points`` (a flag in the top right
+    corner kept the arrow off it); the arrow runs from y up 12 % of the height."""
+    (x_lo, x_hi), (y_lo, y_hi) = xlim, ylim
+    w, h = x_hi - x_lo, y_hi - y_lo
+    best = None
+    for right, top in ((True, True), (False, True), (True, False), (False, False)):
+        x = x_hi - 0.06 * w if right else x_lo + 0.06 * w
+        y = y_hi - 0.16 * h if top else y_lo + 0.08 * h
+        box = (np.abs(points[:, 0] - x) < 0.05 * w) & (points[:, 1] > y - 0.05 * h) & (points[:, 1] < y + 0.17 * h)
+        n = int(np.count_nonzero(box))
+        if best is None or n < best[0]:
+            best = (n, x, y)
+    return best[1], best[2]
 
 
 def located_sources(res, *, ax=None):

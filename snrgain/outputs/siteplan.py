@@ -13,6 +13,8 @@ use), feet or metres (the plan says which).
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 
 from snrgain.decide.lot import OFF_LOT_TOLERANCE_M, clearance_applies, footprint, polygon, tx_clearance_m
@@ -46,6 +48,27 @@ def _antenna_parts(ant, design=None) -> list[dict]:
     return [_part("point", shape.coords)]
 
 
+def _fold_switched(ants, entries) -> None:
+    """The states of one switched antenna that stand as one on the plan (the same elements or point: an array
+    steered to each bearing, a loop turned) drawn once: the first state's entry takes ``shown_as``, the antenna's
+    own name and its states, and the others lose their parts (their entries stay, so each keeps its look).  A
+    wire's states keep their own arrows (the favoured direction differs)."""
+    from snrgain.scenario.switched import switched_state
+
+    groups: dict = {}
+    for ant, e in zip(ants, entries):
+        st = switched_state(ant)
+        if st is not None and e["parts"] and all(p["kind"] != "wire" for p in e["parts"]):
+            groups.setdefault(st.group, (st, []))[1].append(e)
+    for group, (st, es) in groups.items():
+        if len(es) < 2 or any(e["parts"] != es[0]["parts"] for e in es[1:]):
+            continue
+        short = [re.sub(r" \([-\d.]+ deg\)$", "", label) for label in st.states]  # "NE (45 deg)": "NE"
+        es[0]["shown_as"] = f"{group} (switched: {', '.join(short)})"
+        for e in es[1:]:
+            e["parts"] = []
+
+
 def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = None) -> dict:
     """The site plan of a resolved scenario ``sc`` (its raw tables ``data`` give the unit).
 
@@ -70,6 +93,7 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         if ant.composite:
             entry["members"] = [p.name for p in getattr(ant, "elements", None) or ()]
         antennas.append(entry)
+    _fold_switched(sc.antennas, antennas)
     where = {a["name"]: a for a in antennas}
     for a in antennas:  # a combination: drawn between its members' feed points, joined to each
         if a["members"]:

@@ -418,7 +418,10 @@ def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.n
     to rounding."""
     from snrgain.antennas.longwire import field_along_wire, vertical_emf
 
-    jkc, phase_l = phase
+    jkc, phase_l, *kept = phase
+    if not kept:  # what of the sums depends on the directions alone (sky_terms), worked here
+        kept = sky_terms(fl, freq_hz, w, phase=(jkc, phase_l))[2:]
+    cols, j2, across, sin2 = kept
     g, z0, L = c.line.gamma, c.line.z0, fl.length_m
     z_a, z_s = c.z_end, fl.station_ground_ohm
     f_v, f_h = field_along_wire(w, fl.wire_height_m)
@@ -426,18 +429,14 @@ def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.n
     ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
     denom = z0 * (z_a + z_s) * ch + (z0**2 + z_a * z_s) * sh
     a, b = 0.5 * (z0 + z_s) / denom, 0.5 * (z0 - z_s) / denom
-    q = jkc * (a + b)  # the distributed drive's factor (line_currents' q), per direction
-    q += (a - b) * g
-    q *= phase_l * eg
-    a0 = jkc * (a + b * e2)
-    a0 += (a - b * e2) * g
-    q -= a0
-    den = jkc * jkc
-    den -= g * g
-    q /= den
+    # the distributed drive's factor (line_currents' q), per direction: d A1 - A0 as a combination of the columns
+    # [jkc e^{jkcL}, e^{jkcL}, jkc] (one pass), over (jkc)^2 - g^2
+    q = cols @ np.array([(a + b) * eg, (a - b) * g * eg, -(a + b * e2)])
+    q -= (a - b * e2) * g
+    q /= j2 - g * g
     spread = _spreader(w.inv)
     i_v = spread(f_v)
-    i_v *= -w.cos_dphi
+    i_v *= across
     i_v *= q
     if not fl.buried:  # the leads' EMF, up at the antenna end and down at the station's
         ends = phase_l * (z0 * eg / denom)
@@ -446,7 +445,7 @@ def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.n
         i_v += ends
     p = _power(q)
     p *= spread(f_h.real**2 + f_h.imag**2)
-    p *= w.sin_dphi * w.sin_dphi
+    p *= sin2
     p += _power(i_v)
     return p
 
@@ -485,6 +484,19 @@ def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarra
     line's integrals, the same over every ground and line (:func:`sky_gain` takes it kept)."""
     jkc = 1j * wave.k * wave.along
     return jkc, np.exp((1j * wave.k * fl.length_m) * wave.along)
+
+
+def sky_terms(fl: FeedLine, freq_hz: float, wave, *, phase=None) -> tuple:
+    """(j k c, e^{j k c L}: :func:`sky_phase` (or ``phase`` where the caller has it); then what of a lossy line's sums
+    (:func:`_sky_gain_lossy`) depends on the directions alone: the columns [jkc e^{jkcL}, e^{jkcL}, jkc] (D, 3) its
+    drive's factor combines, (jkc)^2, -cos(dphi) (complex) and sin(dphi)^2 per direction).  The same over every
+    ground and cable: :func:`sky_gain` takes it as ``phase`` where the caller keeps it (a spread's grounds)."""
+    jkc, phase_l = sky_phase(fl, freq_hz, wave) if phase is None else phase
+    cols = np.empty((len(jkc), 3), dtype=complex)
+    np.multiply(jkc, phase_l, out=cols[:, 0])
+    cols[:, 1], cols[:, 2] = phase_l, jkc
+    cols.flags.writeable = False
+    return jkc, phase_l, cols, jkc * jkc, -wave.cos_dphi + 0j, wave.sin_dphi * wave.sin_dphi
 
 
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None, closest_at_m=None) -> np.ndarray:
@@ -549,6 +561,20 @@ def runs_emf_from(fls, xs, e) -> list:
     return out
 
 
+def run_emf_grounds(fl: FeedLine, x, e) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`runs_emf_from` of one run over several grounds at once: (the EMF per metre along it (G, len(x)), the
+    EMFs up its two leads (G, 2)) from each ground's field ``e`` (G, N, 3) at :func:`route_points` of the samples
+    ``x`` (each ground's values those :func:`route_emf_from` gives)."""
+    b = fl.bearing_rad
+    n = len(x)
+    emf = e[:, :n, 0] * np.sin(b) + e[:, :n, 1] * np.cos(b)
+    if fl.buried:
+        return emf, np.zeros((len(e), 2), dtype=complex)
+    _, wq = gauss_legendre(LEAD_POINTS)
+    lead = (e[:, n : n + 2 * LEAD_POINTS, 2].reshape(len(e), 2, LEAD_POINTS) @ wq) * fl.wire_height_m / 2
+    return emf, lead
+
+
 def route_emf(fl: FeedLine, freq_hz: float, field, *, closest_m: float, line_gamma=None, closest_at_m=None):
     """(x, the EMF per metre along the run at x, the EMF up the antenna end's lead and down the station's) of an
     incident field ``field(points (N, 2), heights (N,)) -> (N, 3)`` [east, north, up] (a placed source's,
@@ -600,6 +626,24 @@ def emf_currents(fls, cs, emfs) -> np.ndarray:
     current = np.add.reduceat(np.concatenate([e for _, e, _ in emfs]) * transfer * weights, starts)
     leads = np.array([lead for _, _, lead in emfs], dtype=complex).reshape(k, 2)
     current = current + leads[:, 0] * transfer[starts] - leads[:, 1] * transfer[starts + sizes - 1]
+    return -current * np.array([c.divider for c in cs], dtype=complex)
+
+
+def emf_currents_grounds(fl: FeedLine, cs, x, emf, lead) -> np.ndarray:
+    """:func:`emf_current` of one run over several grounds (G,): ``cs`` its coupling on each (each its own line),
+    the same samples ``x``, ``emf`` (G, len(x)) and ``lead`` (G, 2) each ground's EMFs (:func:`run_emf_grounds`);
+    the transfer function over the grounds in one array expression, from one complex exponential per sample (as
+    :func:`emf_currents`; equal to rounding)."""
+    L, z_s = fl.length_m, fl.station_ground_ohm
+    g = np.array([c.line.gamma for c in cs], dtype=complex)[:, None]
+    z0 = np.array([c.line.z0 for c in cs], dtype=complex)[:, None]
+    z_a = np.array([c.z_end for c in cs], dtype=complex)[:, None]
+    d = z0 * (z_a + z_s) * np.cosh(g * L) + (z0**2 + z_a * z_s) * np.sinh(g * L)
+    grow = np.exp(g * (L - np.asarray(x, dtype=float))[None, :])
+    transfer = (0.5 * (z0 + z_s) / d) * grow
+    transfer += (0.5 * (z0 - z_s) / d) / grow
+    current = (emf * transfer) @ pairs_rule(x)
+    current += lead[:, 0] * transfer[:, 0] - lead[:, 1] * transfer[:, -1]  # up at the antenna, down at the station
     return -current * np.array([c.divider for c in cs], dtype=complex)
 
 

@@ -189,19 +189,92 @@ def _transfer(x, g: complex, z0: complex, L: float, z_feed: complex, z_far) -> t
     """(the line's transfer function to the feed at the samples ``x``, the samples' rule weights), kept by the line,
     loads and samples (every placed source heard on one wire at one ground takes the same, unless close in)."""
     x = np.asarray(x, dtype=float)
+    return _TRANSFERS.get(_transfer_key(x, g, z0, L, z_feed, z_far), lambda: _make_transfer(x, g, z0, L, z_feed, z_far))
 
-    def make():
-        if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
-            transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
-        else:
-            d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
-            transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
-        weights = samples_rule(x)
-        transfer.flags.writeable = False
+
+def _transfer_key(x: np.ndarray, g: complex, z0: complex, L: float, z_feed: complex, z_far) -> tuple:
+    return (g, z0, L, z_feed, None if z_far is None else complex(z_far), x.tobytes())
+
+
+def _make_transfer(x: np.ndarray, g: complex, z0: complex, L: float, z_feed: complex, z_far) -> tuple:
+    return _transfers([x], g, z0, L, z_feed, z_far)[0]
+
+
+def _transfers(xs: list[np.ndarray], g: complex, z0: complex, L: float, z_feed: complex, z_far) -> list[tuple]:
+    """:func:`_transfer`'s (transfer function, weights) of each of the sample grids ``xs``, the transfer functions
+    worked on all of them at once (read-only arrays)."""
+    x = np.concatenate(xs) if len(xs) > 1 else xs[0]
+    if z_far is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
+        transfer = np.sinh(g * (L - x)) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
+    else:
+        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
+        transfer = (z0 * np.cosh(g * (L - x)) + z_far * np.sinh(g * (L - x))) / d
+    out = []
+    for part, xi in zip(np.split(transfer, np.cumsum([len(v) for v in xs[:-1]])), xs):
+        weights = samples_rule(xi)
+        part.flags.writeable = False
         weights.flags.writeable = False
-        return transfer, weights
+        out.append((part, weights))
+    return out
 
-    return _TRANSFERS.get((g, z0, L, z_feed, None if z_far is None else complex(z_far), x.tobytes()), make)
+
+def through_line_grids(wire, freq_hz, parts) -> list[np.ndarray]:
+    """:func:`through_line` of one wire on several sample grids at once: ``parts`` [(samples x, EMFs (N, len(x)),
+    leads (2N,) or None)], each grid's feed currents as through_line gives them.  The line and its loads are asked
+    for once and the transfer functions of the grids not yet kept are worked in one array expression (a layout's
+    places along a wire fall on a dozen grids, one per closest approach of a placed source)."""
+    ln = wire.line(freq_hz)
+    g, z0, L = complex(ln.gamma), complex(ln.z0), float(wire.length_m)
+    z_feed = complex(wire.feed_load_ohm(freq_hz))
+    z_far = wire.far_load_ohm(freq_hz)
+    ratio = wire.feed_current_ratio(freq_hz)
+    xs = [np.asarray(x, dtype=float) for x, _, _ in parts]
+    keys = [_transfer_key(x, g, z0, L, z_feed, z_far) for x in xs]
+    todo = [k for k, key in enumerate(keys) if key not in _TRANSFERS]
+    made = dict(zip(todo, _transfers([xs[k] for k in todo], g, z0, L, z_feed, z_far))) if todo else {}
+    out = []
+    for k, (x, emf, lead) in enumerate(parts):
+        held = made.get(k)
+        transfer, weights = _TRANSFERS.get(
+            keys[k], lambda held=held, x=xs[k]: held or _make_transfer(x, g, z0, L, z_feed, z_far)
+        )
+        current = emf @ (transfer * weights)
+        if lead is not None:
+            n = len(emf)
+            current = current + lead[:n] * transfer[0]
+            if z_far is not None:
+                current = current - lead[n:] * transfer[-1]
+        out.append(current * ratio)
+    return out
+
+
+def through_line_grounds(wires, freq_hz, x, emf, lead) -> np.ndarray:
+    """:func:`through_line` of one wire standing over several grounds (``wires``: one per ground, each with its own
+    line and loads; one feed each, the same samples ``x``): (G,) feed currents from each ground's EMFs ``emf``
+    (G, len(x)) and ``lead`` (G, 2) or None.  The transfer functions over the grounds in one array expression (the
+    same values as :func:`through_line`'s), each ground's sum its own (equal to rounding)."""
+    far = [w.far_load_ohm(freq_hz) for w in wires]
+    if any(z is None for z in far) and not all(z is None for z in far):  # open on some grounds only: one by one
+        return np.array([through_line(w, freq_hz, x, e[None], d) for w, e, d in zip(wires, emf, lead)]).reshape(-1)
+    x = np.asarray(x, dtype=float)
+    L = wires[0].length_m
+    lines_ = [w.line(freq_hz) for w in wires]
+    g = np.array([complex(ln.gamma) for ln in lines_])[:, None]
+    z0 = np.array([complex(ln.z0) for ln in lines_])[:, None]
+    z_feed = np.array([complex(w.feed_load_ohm(freq_hz)) for w in wires])[:, None]
+    rest = g * (L - x)[None, :]
+    if far[0] is None:  # open far end: I_F = V sinh g(L - x) / (Z0 cosh gL + Z_F sinh gL)
+        transfer = np.sinh(rest) / (z0 * np.cosh(g * L) + z_feed * np.sinh(g * L))
+    else:
+        z_far = np.array([complex(z) for z in far])[:, None]
+        d = z0 * (z_feed + z_far) * np.cosh(g * L) + (z0**2 + z_feed * z_far) * np.sinh(g * L)
+        transfer = (z0 * np.cosh(rest) + z_far * np.sinh(rest)) / d
+    current = np.einsum("gn,gn->g", emf, transfer * samples_rule(x)[None, :])
+    if lead is not None:
+        current += lead[:, 0] * transfer[:, 0]  # up the feed lead
+        if far[0] is not None:
+            current -= lead[:, 1] * transfer[:, -1]  # down the far lead
+    return current * np.array([complex(w.feed_current_ratio(freq_hz)) for w in wires])
 
 
 def through_lines(wires, freq_hz, x, emf, lead) -> np.ndarray:

@@ -26,6 +26,7 @@ from typing import TYPE_CHECKING, Literal
 import numpy as np
 
 from noisemodels import p372, solar
+from snrgain.memo import Memo
 from snrgain.records import record
 
 if TYPE_CHECKING:  # the sky machinery (healpy) is imported where it is used
@@ -214,12 +215,16 @@ def level_to_fa_db(src: LocalSource, place: Place, reference_gain, chain_gain_db
     from noisemodels import sky
     from snrgain.physics.receiver import power_dbm
 
-    unit = sky.compact_component(
-        src.name,
-        level=p372.NoiseLevel(0.0, 0.0, 0.0),
-        azimuth_rad=src.bearing_rad,
-        elevation_rad=src.elevation_rad,
-        spread_rad=src.spread_rad,
+    where = (src.name, float(src.bearing_rad), float(src.elevation_rad), float(src.spread_rad))
+    unit = _UNITS.get(
+        where,
+        lambda: sky.compact_component(
+            src.name,
+            level=p372.NoiseLevel(0.0, 0.0, 0.0),
+            azimuth_rad=src.bearing_rad,
+            elevation_rad=src.elevation_rad,
+            spread_rad=src.spread_rad,
+        ),
     )
     d = unit.directions
     t_ref = sky.weighted_temperature_k(reference_gain(d.azimuth_rad, d.elevation_rad), unit.weight_k_sr)
@@ -231,6 +236,11 @@ def level_to_fa_db(src: LocalSource, place: Place, reference_gain, chain_gain_db
         )
     have = float(power_dbm(t_ref, bandwidth_hz=place.bandwidth_hz)) + chain_gain_db
     return float(src.level_dbm - have)
+
+
+_UNITS = Memo(64)
+""":func:`level_to_fa_db`'s unit component of a source, by its name and direction: the same at every ground of a
+spread, where each ground's reference reads the level again (snrgain.model.pipeline.strength_offsets_db)."""
 
 
 def resolve_local_levels(

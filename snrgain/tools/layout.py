@@ -40,13 +40,13 @@ written.  Its worth is, over the targets nearest its states' bearings, each targ
 
 from __future__ import annotations
 
-from contextlib import contextmanager
 from dataclasses import replace
 
 import numpy as np
 
 from snrgain.decide.lot import footprint, polygon, tx_clearance_m
 from snrgain.model.placed import tabled
+from snrgain.processes import elsewhere, spare_core
 from snrgain.records import record
 from snrgain.scenario.switched import switched_state
 from snrgain.units import length_text, length_unit_of
@@ -178,6 +178,18 @@ class Problem:
         fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in moved and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
+        # the antennas that stay where written and are not wires (an array's elements, a vertical, a loop): every
+        # placed design keeps WIRE_SEPARATION_M from them (a wire through a four-square couples to its elements);
+        # a switched antenna's states stand once
+        spots: dict = {}
+        for a in sc.candidates:
+            if a.name in moved or a.long_wire:
+                continue
+            shape = footprint(a)
+            if shape is not None and shape.length == 0 and not any(shape.equals(t) for t in spots.values()):
+                st = switched_state(a)
+                spots[st.group if st is not None else a.name] = shape
+        self.fixed_spots = list(spots.items())
         self._sky: dict[tuple, tuple] = {}
         self._scored: dict[tuple, float] = {}
         self._points: list[tuple[float, float]] | None = None
@@ -190,7 +202,7 @@ class Problem:
 
         name = self.names[i]
         spec = dict(next(c for c in self.data.get("candidate", []) if c.get("name") == name))
-        for key in ("place", "chain", "position"):
+        for key in ("place", "chain", "position", "feed_line"):  # its feed line: not scored here (unscored_feed_lines)
             spec.pop(key, None)
         if bearing_rad is not None:
             spec["bearing"] = f"{np.degrees(bearing_rad):.6f} deg"
@@ -363,8 +375,8 @@ class Problem:
 
     def violations(self, d: Design, others=()) -> dict[str, float]:
         """How far a design breaks each rule [m], by the rule and what it names: outside the lot, inside a keep-out
-        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing); only the
-        rules it breaks."""
+        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing) or to an
+        antenna that stays where written (an array's elements, a vertical, a loop); only the rules it breaks."""
         shape = self.footprint(d)
         out = {}
         v = (
@@ -388,6 +400,10 @@ class Problem:
                 out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}"] = (
                     10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
                 )
+        for name, spot in self.fixed_spots:
+            out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the antenna {name!r}"] = max(
+                0.0, WIRE_SEPARATION_M - shape.distance(spot)
+            )
         return {k: float(x) for k, x in out.items() if x > 0}
 
     def violations_many(self, designs: list[Design], others=()) -> list[dict[str, float]]:
@@ -469,6 +485,13 @@ class Problem:
                         np.where(line, near, 0.0),
                     )
                 )
+        for name, spot in self.fixed_spots:
+            columns.append(
+                (
+                    f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the antenna {name!r}",
+                    np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, spot)),
+                )
+            )
         return columns
 
     def violation_m(self, d: Design, others=()) -> float:
@@ -567,8 +590,8 @@ class Problem:
                 self.snr_gains_db(
                     [g for g in feasible[i] if (g.bearing_rad, g.length_m) == (d.bearing_rad, d.length_m)], i
                 )
-        if len(chosen) > 1 and _spare_core():  # the next-best layouts scored in a forked process meanwhile
-            with _elsewhere(lambda: [self._layout(designs) for designs in chosen[1:]]) as theirs:
+        if len(chosen) > 1 and spare_core():  # the next-best layouts scored in a forked process meanwhile
+            with elsewhere(lambda: [self._layout(designs) for designs in chosen[1:]]) as theirs:
                 layouts = [self.refine(self._layout(chosen[0]))]
                 rest = theirs()
             layouts += rest if rest is not None else [self._layout(designs) for designs in chosen[1:]]
@@ -607,14 +630,14 @@ class Problem:
 
         # the candidates from ``split`` on go to the other process: the split nearest half the places
         split = min(range(1, len(feasible)), key=lambda k: abs(2 * sum(map(len, feasible[k:])) - total), default=0)
-        if not split or not _spare_core():
+        if not split or not spare_core():
             return [self.grid_scores(i, f, step) for i, f in enumerate(feasible)]
         # the first design scored here first: the tables and kept values it makes (the placed sources' and the
         # vertical's fields, the sky's groups) are inherited by the other process, not made again there
         d0 = feasible[0][0]
         n0 = sum(1 for d in feasible[0] if (d.bearing_rad, d.length_m) == (d0.bearing_rad, d0.length_m))
         first = self.grid_scores(0, feasible[0][:n0], step)
-        with _elsewhere(lambda: [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]) as theirs:
+        with elsewhere(lambda: [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]) as theirs:
             out = [self.grid_scores(i, f[n0:] if i == 0 else f, step) for i, f in enumerate(feasible[:split])]
             out[0] = first + out[0]
             rest = theirs()
@@ -753,69 +776,6 @@ class Problem:
         raise ValueError("layout: no valid random placement found")
 
 
-def _spare_core() -> bool:
-    """Whether a forked process would run beside this one: two cores or more for it (fork available,
-    snrgain.outputs.drawing.workers, $SNRGAIN_WORKERS) and a load average (the last minute's, this process in it)
-    at least half a core short of the cores; on a machine already busy a second process only adds its start to the
-    work.  The results are the same either way."""
-    import os
-
-    from snrgain.outputs.drawing import workers
-
-    if workers(2) < 2:
-        return False
-    try:
-        cores = len(os.sched_getaffinity(0))
-        load = os.getloadavg()[0]
-    except (AttributeError, OSError):  # not known here
-        return True
-    return load <= cores - 0.5
-
-
-@contextmanager
-def _elsewhere(work):
-    """Runs ``work()`` in a forked process while the ``with`` block runs here; yields ``get()``, which waits for its
-    result (None if it failed or ended without one).  Leaving the block ends the process; Ctrl-C and SIGTERM are
-    left to the command (snrgain.outputs.drawing's workers likewise)."""
-    import multiprocessing
-    import os
-    import sys
-
-    ctx = multiprocessing.get_context("fork")
-    recv, send = ctx.Pipe(duplex=False)
-    for stream in (sys.stdout, sys.stderr):  # nothing buffered to be written twice
-        stream.flush()
-    proc = ctx.Process(target=_elsewhere_run, args=(os.getpid(), work, send), daemon=True)
-    proc.start()
-    send.close()
-
-    def get():
-        try:
-            return recv.recv()
-        except EOFError:
-            return None
-
-    try:
-        yield get
-    finally:
-        recv.close()
-        if proc.is_alive():
-            proc.kill()
-        proc.join()
-
-
-def _elsewhere_run(parent: int, work, send) -> None:
-    from snrgain.outputs.drawing import worker_start
-
-    worker_start(parent)
-    try:
-        send.send(work())
-    except Exception:
-        send.send(None)
-    finally:
-        send.close()
-
-
 def plan_data(problem: Problem, layout: Layout) -> dict:
     """What :func:`snrgain.outputs.plots.layout_plan` draws: the site plan (:func:`snrgain.outputs.siteplan.plan_of`:
     the lot, keep-outs, the TX vertical and its clearance, the placed sources, every antenna as built) with the
@@ -843,9 +803,10 @@ def _statistic(sc, g: np.ndarray, t: int) -> np.ndarray:
     once, from SNR gains (antennas, targets, months, hours): the median (or the mean) of each row over the target's
     months and hours (snrgain.model.spread.over_hours)."""
     from snrgain.model.products import target_masks
+    from snrgain.model.spread import median  # np.median's value without loading numpy.ma
 
     v = g[:, t][:, target_masks(sc)[t]]  # (antennas, the target's month-hours)
-    return np.median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
+    return median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
 
 
 def _member(antenna) -> str:
@@ -877,6 +838,13 @@ def _distinct(found, k):
         if len(out) == k:
             break
     return out
+
+
+def unscored_feed_lines(data: dict) -> list[str]:
+    """The placeable candidates of the scenario's tables ``data`` that give a feed line: the layout scores them
+    without it (its run, and what it hears, depend on where the antenna stands); ``rank`` on the written layout
+    scores it."""
+    return [c.get("name", "?") for c in data.get("candidate", []) if "place" in c and "feed_line" in c]
 
 
 def as_dict(layouts: list[Layout]) -> dict:
