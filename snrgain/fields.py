@@ -69,23 +69,15 @@ def quantity(dimension: str, *, gt=None, ge=None, lt=None, le=None):
                 raise ValueError(f"expected a finite {dimension}, got {value!r}")
         else:
             x = parse_quantity(value, dimension)
-        bounds = []
-        ok = True
-        if gt is not None:
-            ok &= x > gt
-            bounds.append(f"> {_fmt(gt, dimension)}")
-        if ge is not None:
-            ok &= x >= ge
-            bounds.append(f">= {_fmt(ge, dimension)}")
-        if lt is not None:
-            ok &= x < lt
-            bounds.append(f"< {_fmt(lt, dimension)}")
-        if le is not None:
-            ok &= x <= le
-            bounds.append(f"<= {_fmt(le, dimension)}")
-        if not ok:
+        ok = (gt is None or x > gt) and (ge is None or x >= ge) and (lt is None or x < lt) and (le is None or x <= le)
+        if not ok:  # the message's bounds written only for a value out of range
             if ge is not None and le is not None and gt is None and lt is None:
                 raise ValueError(f"must be between {_fmt(ge, dimension)} and {_fmt(le, dimension)}; got {value!r}")
+            bounds = [
+                f"{sign} {_fmt(bound, dimension)}"
+                for sign, bound in ((">", gt), (">=", ge), ("<", lt), ("<=", le))
+                if bound is not None
+            ]
             raise ValueError(f"must be {' and '.join(bounds)}; got {value!r}")
         return x
 

@@ -161,3 +161,15 @@ def test_wire_command_bog_where_it_lies(runner):
 def test_wire_command_refuses_a_depth_it_cannot_use(runner, args, match):
     res = runner.invoke(cli, ["wire", "--frequency", "1.83 MHz", "--length", "60 m", *args])
     assert res.exit_code == 2 and match in res.output
+
+
+def test_rank_table_prints_names_as_written(runner, tmp_path, minimal_text):
+    """A name with square brackets or colons is printed as written, not read as rich markup or an emoji code."""
+    path = tmp_path / "s.toml"
+    text = minimal_text.replace("[reference]\n", '[reference]\nname = "TX [bold]main[/bold] :star:"\n')
+    path.write_text(text, encoding="utf-8")
+    for args in ([], ["-o", str(tmp_path / "t.txt")]):
+        res = runner.invoke(cli, ["rank", str(path), *args])
+        assert res.exit_code == 0, res.output
+        text = res.stdout if not args else (tmp_path / "t.txt").read_text(encoding="utf-8")
+        assert "SNR gain over TX [bold]main[/bold] :star:" in text

@@ -92,15 +92,17 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
         from rich.console import Console
 
         table = out.bands_table(results, build=build) if several else out.ranking_table(results, build=build)
+        # names and notes print as written: no markup in square brackets, no :emoji: codes (and no parsing for them)
+        plain = {"markup": False, "emoji": False}
         if output is None:
-            console = Console()
+            console = Console(**plain)
             if not console.is_terminal:
-                console = Console(width=120)
+                console = Console(width=120, **plain)
             console.print(table)
             return
         import io
 
-        buf = Console(record=True, width=120, file=io.StringIO())
+        buf = Console(record=True, width=120, file=io.StringIO(), **plain)
         buf.print(table)
         text = buf.export_text()
     if output is None:
