@@ -381,3 +381,16 @@ def test_amplitudes_of_several_antennas_are_each_antennas():
     want = [placed.received_amplitudes(a, src, F_HZ, (0.0, 0.0), ground, kind="vertical") for a in ants]
     assert got == want
     assert placed.received_amplitudes_of(ants, src, F_HZ, (0.0, 0.0), ground, kind="vertical") == want  # held
+
+
+def test_a_compact_antennas_amplitudes_from_several_sources_at_once_equal_each_sources():
+    # placed._through_currents_sources (one response call toward every source, the plane waves from every direction
+    # at once) gives _through_currents' amplitude from each source's dipole, to rounding
+    ant = from_si("vertical", height=18.0, ground="moist loam", position=(3.0, -4.0))
+    at = np.array([3.0, -4.0])
+    srcs = [_source((60.0, 40.0), 3.0), _source((-20.0, 90.0), 6.0, "horizontal", 30.0), _source((5.0, -70.0), 1.0)]
+    pairs = [(s, kind) for s in srcs for kind, _ in placed.dipoles(s)]
+    segments = placed.transmit_segments(ant, F_HZ)
+    got = placed._through_currents_sources(ant, pairs, F_HZ, at, ant.ground, segments)
+    want = [placed._through_currents(ant, s, F_HZ, at, ant.ground, kind, segments) for s, kind in pairs]
+    np.testing.assert_allclose(got, want, rtol=1e-12)

@@ -23,7 +23,7 @@ a ``feed-line-ground-assumed`` notice names an antenna whose ground there is snr
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -337,11 +337,14 @@ def _routes(sc, antennas) -> dict:
             continue
         start = feed_point(a, ref_m)
         if fl.start_m != start:
-            from dataclasses import replace
-
-            fl = replace(fl, start_m=start)
+            fl = _MOVED.get((id(fl), start), lambda fl=fl, start=start: (fl, replace(fl, start_m=start)))[1]
         out[k] = fl
     return out
+
+
+_MOVED = Memo(256)
+""":func:`_routes`' lines moved to start where their antennas stand, by the scenario's line object and the start (held
+with it, so its id stays its own): every pass of the products asks for the same again."""
 
 
 def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
