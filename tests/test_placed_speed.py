@@ -343,6 +343,14 @@ def test_a_wires_line_over_several_grounds_at_once_equals_each_grounds(family):
     np.testing.assert_allclose(through_line_grounds(wires, F_HZ, x, emf, lead), want, rtol=1e-13)
     want = [complex(through_line(w, F_HZ, x, e[None], None)[0]) for w, e in zip(wires, emf)]
     np.testing.assert_allclose(through_line_grounds(wires, F_HZ, x, emf, None), want, rtol=1e-13)
+    # open on some grounds only (a terminated wire beside an unterminated one): one by one, the same currents
+    mixed = [wires[0], from_si("beverage", length=200.0, height=2.0, bearing=0.4, ground=GROUNDS[1]), wires[2]]
+    for lead_ in (lead, None):
+        want = [
+            complex(through_line(w, F_HZ, x, e[None], None if lead_ is None else d)[0])
+            for w, e, d in zip(mixed, emf, lead)
+        ]
+        np.testing.assert_allclose(through_line_grounds(mixed, F_HZ, x, emf, lead_), want, rtol=1e-13)
 
 
 @pytest.mark.parametrize("height", [1.0, None])
