@@ -513,10 +513,12 @@ def _field_key(src, p: np.ndarray, z: np.ndarray, freq_hz: float, ground, kind: 
     )
 
 
-_FIELDS = Memo(256, max_bytes=64 * 2**20)
+_FIELDS = Memo(512, max_bytes=64 * 2**20)
 """A placed source's field at a compact antenna's segments (:func:`_kept_field`); what else is made of the field is
 kept whole where it is made: a long wire's EMFs in :data:`_EMFS`, a feed line's in snrgain.model.feedline, an
-antenna's amplitudes in :data:`_AMPLITUDES`."""
+antenna's amplitudes in :data:`_AMPLITUDES`.  Room for a spread's nine grounds' worth of five sources at four
+compact antennas and the reference (:func:`fields_ahead` works ahead only when the memos can hold every ground's
+parts; the bytes stay bounded)."""
 FIELD_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
