@@ -598,7 +598,15 @@ def gains(prep: Prepared, sc, reference_gains):
 def sky_rows(prep: Prepared) -> tuple[list, dict]:
     """([(FeedLine, canonical Coupling) of each distinct route], k -> (its route's row, the factor on its gain)) for
     the feed lines of ``prep``: the sky's temperature is linear in the gain, and a feed line's gain is its route's
-    into the canonical end (:func:`canonical_coupling`) times |thevenin_scale|^2 (Thevenin's theorem)."""
+    into the canonical end (:func:`canonical_coupling`) times |thevenin_scale|^2 (Thevenin's theorem).  Kept by the
+    Prepared object (held with it, so its id stays its own): a pass of the products asks three or four times."""
+    return _ROWS.get(id(prep), lambda: (prep, _sky_rows(prep)))[1]
+
+
+_ROWS = Memo(32)
+
+
+def _sky_rows(prep: Prepared) -> tuple[list, dict]:
     routes: dict = {}
     rows, of = [], {}
     for k in sorted(prep.lines):
