@@ -367,6 +367,14 @@ def test_a_wires_line_over_several_grounds_at_once_equals_each_grounds(family):
     np.testing.assert_allclose(through_line_grounds(wires, F_HZ, x, emf, lead), want, rtol=1e-13)
     want = [complex(through_line(w, F_HZ, x, e[None], None)[0]) for w, e in zip(wires, emf)]
     np.testing.assert_allclose(through_line_grounds(wires, F_HZ, x, emf, None), want, rtol=1e-13)
+    # open on some grounds only (a terminated wire beside an unterminated one): one by one, the same currents
+    mixed = [wires[0], from_si("beverage", length=200.0, height=2.0, bearing=0.4, ground=GROUNDS[1]), wires[2]]
+    for lead_ in (lead, None):
+        want = [
+            complex(through_line(w, F_HZ, x, e[None], None if lead_ is None else d)[0])
+            for w, e, d in zip(mixed, emf, lead)
+        ]
+        np.testing.assert_allclose(through_line_grounds(mixed, F_HZ, x, emf, lead_), want, rtol=1e-13)
 
 
 @pytest.mark.parametrize("height", [1.0, None])
@@ -405,3 +413,16 @@ def test_amplitudes_of_several_antennas_are_each_antennas():
     want = [placed.received_amplitudes(a, src, F_HZ, (0.0, 0.0), ground, kind="vertical") for a in ants]
     assert got == want
     assert placed.received_amplitudes_of(ants, src, F_HZ, (0.0, 0.0), ground, kind="vertical") == want  # held
+
+
+def test_a_compact_antennas_amplitudes_from_several_sources_at_once_equal_each_sources():
+    # placed._through_currents_sources (one response call toward every source, the plane waves from every direction
+    # at once) gives _through_currents' amplitude from each source's dipole, to rounding
+    ant = from_si("vertical", height=18.0, ground="moist loam", position=(3.0, -4.0))
+    at = np.array([3.0, -4.0])
+    srcs = [_source((60.0, 40.0), 3.0), _source((-20.0, 90.0), 6.0, "horizontal", 30.0), _source((5.0, -70.0), 1.0)]
+    pairs = [(s, kind) for s in srcs for kind, _ in placed.dipoles(s)]
+    segments = placed.transmit_segments(ant, F_HZ)
+    got = placed._through_currents_sources(ant, pairs, F_HZ, at, ant.ground, segments)
+    want = [placed._through_currents(ant, s, F_HZ, at, ant.ground, kind, segments) for s, kind in pairs]
+    np.testing.assert_allclose(got, want, rtol=1e-12)

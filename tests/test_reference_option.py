@@ -4,6 +4,7 @@ swapped), and a local level stays read on the antenna the file says (``read_on``
 from __future__ import annotations
 
 import copy
+import dataclasses
 import json
 
 import numpy as np
@@ -227,6 +228,11 @@ def test_a_levels_unit_component_kept_across_grounds_reads_the_same():
         forget()
         fresh = noise.level_to_fa_db(src, sc.place, gain)
         assert noise.level_to_fa_db(src, sc.place, gain) == fresh and len(noise._UNITS) == 1
+        # several levels read together (the reference's gain asked once on all their directions): each one's own
+        others = [src, dataclasses.replace(src, name="b", bearing_rad=src.bearing_rad + 1.0, elevation_rad=0.3)]
+        together = noise.levels_to_fa_db(others, sc.place, gain)
+        alone = [noise.level_to_fa_db(s, sc.place, gain) for s in others]
+        assert together == pytest.approx(alone, rel=1e-14, abs=1e-12)
 
 
 def test_placed_sources_under_another_reference():

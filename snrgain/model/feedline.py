@@ -23,6 +23,7 @@ a ``feed-line-ground-assumed`` notice names an antenna whose ground there is snr
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
 
@@ -337,11 +338,14 @@ def _routes(sc, antennas) -> dict:
             continue
         start = feed_point(a, ref_m)
         if fl.start_m != start:
-            from dataclasses import replace
-
-            fl = replace(fl, start_m=start)
+            fl = _MOVED.get((id(fl), start), lambda fl=fl, start=start: (fl, replace(fl, start_m=start)))[1]
         out[k] = fl
     return out
+
+
+_MOVED = Memo(256)
+""":func:`_routes`' lines moved to start where their antennas stand, by the scenario's line object and the start (held
+with it, so its id stays its own): every pass of the products asks for the same again."""
 
 
 def route_points_ahead(sc, antennas, src, kind, freq_hz, ground) -> list:
@@ -595,7 +599,15 @@ def gains(prep: Prepared, sc, reference_gains):
 def sky_rows(prep: Prepared) -> tuple[list, dict]:
     """([(FeedLine, canonical Coupling) of each distinct route], k -> (its route's row, the factor on its gain)) for
     the feed lines of ``prep``: the sky's temperature is linear in the gain, and a feed line's gain is its route's
-    into the canonical end (:func:`canonical_coupling`) times |thevenin_scale|^2 (Thevenin's theorem)."""
+    into the canonical end (:func:`canonical_coupling`) times |thevenin_scale|^2 (Thevenin's theorem).  Kept by the
+    Prepared object (held with it, so its id stays its own): a pass of the products asks three or four times."""
+    return _ROWS.get(id(prep), lambda: (prep, _sky_rows(prep)))[1]
+
+
+_ROWS = Memo(32)
+
+
+def _sky_rows(prep: Prepared) -> tuple[list, dict]:
     routes: dict = {}
     rows, of = [], {}
     for k in sorted(prep.lines):

@@ -164,13 +164,15 @@ def strength_offsets_db(sc: Scenario, antennas) -> dict[str, float]:
     alone): how many dB each source's strength must move so that the antenna its level was read on still receives
     what was read (name -> dB)."""
     antennas = list(antennas) if isinstance(antennas, (list, tuple)) else [antennas]
-    out = {}
+    by_reader: dict[int, list] = {}  # the levels read on each antenna, read again together
     for s in sc.noise.local:
         if s.level_dbm is not None and s.fa_db is not None:
-            k = _reader(sc, s, antennas) if len(antennas) > 1 else 0
-            fa = noisemod.level_to_fa_db(s, sc.place, _reference_gain(sc, antennas[k]), _chain_gain_db(sc, k))
-            out[s.name] = fa - s.fa_db
-    return out
+            by_reader.setdefault(_reader(sc, s, antennas) if len(antennas) > 1 else 0, []).append(s)
+    fa = {}
+    for k, srcs in by_reader.items():
+        got = noisemod.levels_to_fa_db(srcs, sc.place, _reference_gain(sc, antennas[k]), _chain_gain_db(sc, k))
+        fa.update({s.name: v - s.fa_db for s, v in zip(srcs, got)})
+    return {s.name: fa[s.name] for s in sc.noise.local if s.name in fa}
 
 
 def build_sky(sc: Scenario, grid) -> noisemod.SkySeries:

@@ -391,6 +391,71 @@ def fields_ahead(sc, per_ground) -> None:
             for q, z, plans in same:
                 e = field_vector_grounds(src, q, z, f, [pl.ground for pl in plans], kind=kind)
                 _prefetch_keep_grounds(plans, e)
+    pairs = [(src, kind) for src in placed for kind, _ in dipoles(src)]
+    for ground, antennas in per_ground:  # the compact antennas' amplitudes, every source at once
+        _compact_amplitudes_ahead(antennas, pairs, f, antennas[0].params.position or (0.0, 0.0), ground)
+
+
+def _compact_amplitudes_ahead(antennas, pairs, freq_hz: float, reference_m, ground) -> None:
+    """Keep in :data:`_AMPLITUDES` what :func:`received_amplitudes` gives each compact antenna of ``antennas`` standing
+    alone at its place and read through its transmit currents (:func:`_through_currents`), from every placed source's
+    dipole of ``pairs`` [(source, kind)] at once (:func:`_through_currents_sources`: its response toward them all in
+    one call): a spread's grounds each ask for the reference's from every source."""
+    p = _known_by_groups(antennas)
+    for k, a in enumerate(antennas):
+        if np.isfinite(p[k]) or a.integrates_near_sources or a.composite or not has_place(a):
+            continue
+        keys = [_amplitudes_key(a, src, freq_hz, reference_m, ground, None, kind) for src, kind in pairs]
+        if all(key in _AMPLITUDES for key in keys):
+            continue
+        segments = transmit_segments(a, freq_hz)
+        if segments is None:
+            continue
+        at = antenna_point(a, reference_m)
+        got = _through_currents_sources(a, pairs, freq_hz, at, ground, segments)
+        for key, v in zip(keys, got):
+            _AMPLITUDES.get(key, lambda a=a, v=v: (a, (complex(v), 0j)))
+
+
+def _through_currents_sources(antenna, pairs, freq_hz: float, at, ground, segments) -> np.ndarray:
+    """:func:`_through_currents` of one antenna at ``at`` from each placed source's dipole of ``pairs`` [(source,
+    kind)]: (S,) complex, its response toward every source in one call and the unit plane waves from every
+    direction at once (as :func:`_through_currents_many` does for one source at many places; equal to rounding)."""
+    from snrgain.physics.ground import reflection_coefficients
+
+    pts, dirs, cur = segments
+    pts, dirs, cur = np.asarray(pts, dtype=float), np.asarray(dirs, dtype=float), np.asarray(cur, dtype=complex)
+    where = at[None, :] + pts[:, :2]
+    v_src = np.array(
+        [
+            np.einsum("ni,ni,n->", _kept_field(src, where, pts[:, 2], freq_hz, ground, kind=kind), dirs, cur)
+            for src, kind in pairs
+        ]
+    )
+    az = np.array([float(bearing_to(src, at[None, :])[0]) for src, _ in pairs])
+    el = np.array([float(src.elevation_rad) for src, _ in pairs])
+    rv, rh = antenna.complex_response(freq_hz, az, el)
+    k = 2 * np.pi * freq_hz / C_M_PER_S
+    ca, sa, ce, se = np.cos(az), np.sin(az), np.cos(el), np.sin(el)
+    toward = np.stack([ce * sa, ce * ca, se], axis=1)  # (S, 3)
+    mirror = toward * np.array([1.0, 1.0, -1.0])
+    r_v, r_h = reflection_coefficients(ground, el, freq_hz)
+    direct = np.exp(1j * k * pts @ toward.T)  # (N, S)
+    reflected = np.exp(1j * k * pts @ mirror.T)
+    dc = dirs * cur[:, None]  # (N, 3)
+    pol_v = (direct * (dc[:, :1] * (-se * sa) + dc[:, 1:2] * (-se * ca) + dc[:, 2:] * ce)).sum(axis=0) + r_v * (
+        reflected * (dc[:, :1] * (se * sa) + dc[:, 1:2] * (se * ca) + dc[:, 2:] * ce)
+    ).sum(axis=0)
+    pol_h = ((direct + r_h * reflected) * (dc[:, :1] * ca - dc[:, 1:2] * sa)).sum(axis=0)
+    out = np.zeros(len(pairs), dtype=complex)
+    for j in range(len(pairs)):
+        best = None
+        for r, v_pw in ((complex(rv[j]), pol_v[j]), (complex(rh[j]), pol_h[j])):
+            if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
+                best = (r, v_pw)
+        if best is not None and best[0] != 0:
+            out[j] = v_src[j] * best[0] / best[1]
+    return out
 
 
 def _same_bits(a: np.ndarray, b: np.ndarray) -> bool:
@@ -452,10 +517,12 @@ def _field_key(src, p: np.ndarray, z: np.ndarray, freq_hz: float, ground, kind: 
     )
 
 
-_FIELDS = Memo(256, max_bytes=64 * 2**20)
+_FIELDS = Memo(512, max_bytes=64 * 2**20)
 """A placed source's field at a compact antenna's segments (:func:`_kept_field`); what else is made of the field is
 kept whole where it is made: a long wire's EMFs in :data:`_EMFS`, a feed line's in snrgain.model.feedline, an
-antenna's amplitudes in :data:`_AMPLITUDES`."""
+antenna's amplitudes in :data:`_AMPLITUDES`.  Room for a spread's nine grounds' worth of five sources at four
+compact antennas and the reference (:func:`fields_ahead` works ahead only when the memos can hold every ground's
+parts; the bytes stay bounded)."""
 FIELD_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 

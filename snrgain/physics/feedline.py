@@ -421,7 +421,7 @@ def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.n
     jkc, phase_l, *kept = phase
     if not kept:  # what of the sums depends on the directions alone (sky_terms), worked here
         kept = sky_terms(fl, freq_hz, w, phase=(jkc, phase_l))[2:]
-    cols, j2, across, sin2 = kept
+    p1, j2, across, sin2 = kept
     g, z0, L = c.line.gamma, c.line.z0, fl.length_m
     z_a, z_s = c.z_end, fl.station_ground_ohm
     f_v, f_h = field_along_wire(w, fl.wire_height_m)
@@ -429,11 +429,23 @@ def _sky_gain_lossy(fl: FeedLine, c: Coupling, freq_hz: float, w, phase) -> np.n
     ch, sh = 0.5 * (1 + e2), 0.5 * (1 - e2)
     denom = z0 * (z_a + z_s) * ch + (z0**2 + z_a * z_s) * sh
     a, b = 0.5 * (z0 + z_s) / denom, 0.5 * (z0 - z_s) / denom
-    # the distributed drive's factor (line_currents' q), per direction: d A1 - A0 as a combination of the columns
-    # [jkc e^{jkcL}, e^{jkcL}, jkc] (one pass), over (jkc)^2 - g^2
-    q = cols @ np.array([(a + b) * eg, (a - b) * g * eg, -(a + b * e2)])
+    # the distributed drive's factor (line_currents' q), per direction: d A1 - A0 from the kept jkc e^{jkcL}, e^{jkcL}
+    # and jkc, over (jkc)^2 - g^2
+    q = p1 * ((a + b) * eg)
+    q += phase_l * ((a - b) * g * eg)
+    q -= jkc * (a + b * e2)
     q -= (a - b * e2) * g
-    q /= j2 - g * g
+    # over (jkc)^2 - g^2 = -(X + jY), X = (kc)^2 + Re g^2 per direction and Y = Im g^2: times -(X - jY) / (X^2 + Y^2),
+    # the reciprocal in real arithmetic (jkc is imaginary: (jkc)^2 = -(kc)^2, kept as j2's real part)
+    g2 = g * g
+    x = j2.real - g2.real  # -X
+    r = x * x
+    r += g2.imag * g2.imag
+    np.reciprocal(r, out=r)
+    inv = np.empty(len(x), dtype=complex)
+    np.multiply(x, r, out=inv.real)
+    np.multiply(r, g2.imag, out=inv.imag)
+    q *= inv
     spread = _spreader(w.inv)
     i_v = spread(f_v)
     i_v *= across
@@ -488,15 +500,11 @@ def sky_phase(fl: FeedLine, freq_hz: float, wave) -> tuple[np.ndarray, np.ndarra
 
 def sky_terms(fl: FeedLine, freq_hz: float, wave, *, phase=None) -> tuple:
     """(j k c, e^{j k c L}: :func:`sky_phase` (or ``phase`` where the caller has it); then what of a lossy line's sums
-    (:func:`_sky_gain_lossy`) depends on the directions alone: the columns [jkc e^{jkcL}, e^{jkcL}, jkc] (D, 3) its
-    drive's factor combines, (jkc)^2, -cos(dphi) (complex) and sin(dphi)^2 per direction).  The same over every
-    ground and cable: :func:`sky_gain` takes it as ``phase`` where the caller keeps it (a spread's grounds)."""
+    (:func:`_sky_gain_lossy`) depends on the directions alone: jkc e^{jkcL}, (jkc)^2, -cos(dphi) (complex) and
+    sin(dphi)^2 per direction).  The same over every ground and cable: :func:`sky_gain` takes it as ``phase`` where
+    the caller keeps it (a spread's grounds)."""
     jkc, phase_l = sky_phase(fl, freq_hz, wave) if phase is None else phase
-    cols = np.empty((len(jkc), 3), dtype=complex)
-    np.multiply(jkc, phase_l, out=cols[:, 0])
-    cols[:, 1], cols[:, 2] = phase_l, jkc
-    cols.flags.writeable = False
-    return jkc, phase_l, cols, jkc * jkc, -wave.cos_dphi + 0j, wave.sin_dphi * wave.sin_dphi
+    return jkc, phase_l, jkc * phase_l, jkc * jkc, -wave.cos_dphi + 0j, wave.sin_dphi * wave.sin_dphi
 
 
 def route_samples(fl: FeedLine, freq_hz: float, closest_m: float, line_gamma=None, closest_at_m=None) -> np.ndarray:

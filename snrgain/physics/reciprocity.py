@@ -255,7 +255,8 @@ def through_line_grounds(wires, freq_hz, x, emf, lead) -> np.ndarray:
     same values as :func:`through_line`'s), each ground's sum its own (equal to rounding)."""
     far = [w.far_load_ohm(freq_hz) for w in wires]
     if any(z is None for z in far) and not all(z is None for z in far):  # open on some grounds only: one by one
-        return np.array([through_line(w, freq_hz, x, e[None], d) for w, e, d in zip(wires, emf, lead)]).reshape(-1)
+        leads = [None] * len(wires) if lead is None else lead
+        return np.array([through_line(w, freq_hz, x, e[None], d) for w, e, d in zip(wires, emf, leads)]).reshape(-1)
     x = np.asarray(x, dtype=float)
     L = wires[0].length_m
     lines_ = [w.line(freq_hz) for w in wires]

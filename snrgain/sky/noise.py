@@ -212,11 +212,39 @@ def level_to_fa_db(src: LocalSource, place: Place, reference_gain, chain_gain_db
     """The Fa [dB above kT0b] that makes the reference antenna (``reference_gain(azimuth_rad, elevation_rad) ->
     linear``), through a chain of gain ``chain_gain_db``, receive a local source's ``level_dbm`` in the band's
     bandwidth, as an S-meter shows it."""
+    return levels_to_fa_db([src], place, reference_gain, chain_gain_db)[0]
+
+
+def levels_to_fa_db(srcs, place: Place, reference_gain, chain_gain_db: float = 0.0) -> list[float]:
+    """:func:`level_to_fa_db` of each of ``srcs`` read on one reference, its gain asked once on all their unit
+    components' directions (each ground of a spread reads every level again)."""
     from noisemodels import sky
     from snrgain.physics.receiver import power_dbm
 
+    units = [_unit_component(src) for src in srcs]
+    az = np.concatenate([u.directions.azimuth_rad for u in units])
+    el = np.concatenate([u.directions.elevation_rad for u in units])
+    gains = np.split(reference_gain(az, el), np.cumsum([len(u.directions.azimuth_rad) for u in units])[:-1])
+    out = []
+    for src, unit, gain in zip(srcs, units, gains):
+        t_ref = sky.weighted_temperature_k(gain, unit.weight_k_sr)
+        if not t_ref > 0:
+            raise ValueError(
+                f"noise.local {src.name!r}: the reference antenna receives nothing from bearing "
+                f"{np.degrees(src.bearing_rad):g} deg, elevation {np.degrees(src.elevation_rad):g} deg, so a level "
+                "measured on it cannot be placed; give the level as fa instead"
+            )
+        have = float(power_dbm(t_ref, bandwidth_hz=place.bandwidth_hz)) + chain_gain_db
+        out.append(float(src.level_dbm - have))
+    return out
+
+
+def _unit_component(src: LocalSource) -> SkyComponent:
+    """A source's compact component of unit level (:data:`_UNITS`)."""
+    from noisemodels import sky
+
     where = (src.name, float(src.bearing_rad), float(src.elevation_rad), float(src.spread_rad))
-    unit = _UNITS.get(
+    return _UNITS.get(
         where,
         lambda: sky.compact_component(
             src.name,
@@ -226,20 +254,10 @@ def level_to_fa_db(src: LocalSource, place: Place, reference_gain, chain_gain_db
             spread_rad=src.spread_rad,
         ),
     )
-    d = unit.directions
-    t_ref = sky.weighted_temperature_k(reference_gain(d.azimuth_rad, d.elevation_rad), unit.weight_k_sr)
-    if not t_ref > 0:
-        raise ValueError(
-            f"noise.local {src.name!r}: the reference antenna receives nothing from bearing "
-            f"{np.degrees(src.bearing_rad):g} deg, elevation {np.degrees(src.elevation_rad):g} deg, so a level "
-            "measured on it cannot be placed; give the level as fa instead"
-        )
-    have = float(power_dbm(t_ref, bandwidth_hz=place.bandwidth_hz)) + chain_gain_db
-    return float(src.level_dbm - have)
 
 
 _UNITS = Memo(64)
-""":func:`level_to_fa_db`'s unit component of a source, by its name and direction: the same at every ground of a
+""":func:`levels_to_fa_db`' unit component of a source, by its name and direction: the same at every ground of a
 spread, where each ground's reference reads the level again (snrgain.model.pipeline.strength_offsets_db)."""
 
 
