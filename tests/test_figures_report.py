@@ -1,6 +1,7 @@
 """Figures and the HTML report: non-empty images with the expected axes and traces; valid, complete HTML."""
 
 import io
+import os
 import shutil
 import subprocess
 from html.parser import HTMLParser
@@ -283,6 +284,47 @@ def test_figures_drawn_by_workers_are_the_bytes_drawn_in_this_process(results, m
     shared = drawing.draw_all(jobs, done=lambda: counted.append(1))
     assert shared == alone and len(counted) == len(jobs)
     assert all(b.startswith(b"\x89PNG") for b in shared)
+
+
+def _drawn_by(pids_file, label):
+    """A small figure, its maker's process id written to ``pids_file`` (which process drew it)."""
+    from matplotlib.figure import Figure
+
+    with open(pids_file, "a") as f:
+        f.write(f"{os.getpid()}\n")
+    fig = Figure(figsize=(2.0, 1.5), dpi=72)
+    fig.add_subplot().set_title(label)
+    return fig
+
+
+def test_this_process_draws_beside_its_workers_and_raises_their_errors(tmp_path, monkeypatch):
+    # draw_all with two processes forks one worker and draws too, both taking jobs from one list: each job drawn
+    # once, some here and some in the worker, in the jobs' order and as drawn alone; a job that fails raises its
+    # error here.
+    from functools import partial
+
+    from snrgain import processes
+    from snrgain.outputs import drawing
+
+    pids = tmp_path / "pids"
+    jobs = [(partial(_drawn_by, pids, f"figure {k}"), "png", {"dpi": 72, "bbox_inches": "tight"}) for k in range(8)]
+    monkeypatch.setenv(processes.ENV_WORKERS, "1")
+    alone = drawing.draw_all(jobs)
+    pids.unlink()
+    monkeypatch.setenv(processes.ENV_WORKERS, "2")
+    if processes.workers(len(jobs)) < 2:
+        pytest.skip("one core or no fork here: only the serial path can run")
+    counted = []
+    assert drawing.draw_all(jobs, done=lambda: counted.append(1), cost=list(range(8))) == alone
+    drawers = pids.read_text().split()
+    assert len(drawers) == len(jobs) == len(counted)
+    assert str(os.getpid()) in drawers and len(set(drawers)) == 2  # this process and one worker
+
+    def broken():
+        raise RuntimeError("no such figure")
+
+    with pytest.raises(RuntimeError, match="no such figure"):
+        drawing.draw_all([*jobs[:3], (broken, "png", {}), *jobs[3:]])
 
 
 def test_saving_an_svg_with_one_draw_writes_the_picture_savefig_writes(results, monkeypatch):
@@ -596,6 +638,38 @@ def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
     plots.prepare_sky(results.nside)
     assert list(plots._SKY_WEIGHTS) == [results.nside]
     assert drawing.figure_bytes(plots.noise_sky(results), "png", **plots.SAVE_OPTIONS) == without
+
+
+def test_ticks_fixed_for_the_draw_draw_the_same_files(results, monkeypatch):
+    # drawing.ticks_fixed fixes each plain axis' ticks and labels to those it shows (public locator and formatter
+    # calls) for the one draw and the box measured after it: the same files as with the ticks found at every ask,
+    # and every axis' locator and formatter as they were after.
+    import contextlib
+
+    import matplotlib as mpl
+
+    from snrgain.outputs import drawing
+
+    monkeypatch.setitem(mpl.rcParams, "svg.hashsalt", "fixed")
+    svg = {"bbox_inches": "tight", "metadata": {"Date": None}}
+    makers = (plots.noise_sky, plots.ranking_chart, plots.snr_over_hours, plots.elevation_pattern, plots.site_plan)
+    fixed = [
+        drawing.figure_bytes(make(results), fmt, **opts)
+        for make in makers
+        for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
+    ]
+    fig = plots.snr_over_hours(results)
+    before = [(a.get_major_locator(), a.get_major_formatter()) for ax in fig.axes for a in (ax.xaxis, ax.yaxis)]
+    with drawing.ticks_fixed(fig):
+        assert any(type(a.get_major_locator()).__name__ == "FixedLocator" for ax in fig.axes for a in (ax.xaxis,))
+    assert [(a.get_major_locator(), a.get_major_formatter()) for ax in fig.axes for a in (ax.xaxis, ax.yaxis)] == before
+    monkeypatch.setattr(drawing, "ticks_fixed", lambda fig: contextlib.nullcontext())
+    found = [
+        drawing.figure_bytes(make(results), fmt, **opts)
+        for make in makers
+        for fmt, opts in (("svg", svg), ("png", plots.SAVE_OPTIONS))
+    ]
+    assert fixed == found
 
 
 def test_the_figures_process_imports_matplotlib_as_it_is():

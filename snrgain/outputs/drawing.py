@@ -7,8 +7,9 @@ worker is left with a large one at the end.
 
 Matplotlib takes a good part of a second to import and to load its fonts; :class:`Drawer` does that in a helper
 process started before the evaluation, on the other core, while the command evaluates the scenario.  When the
-results are there they are sent to the helper once (pickled, a few MB), and the helper forks the workers, which
-inherit matplotlib, the fonts and the results.  The command itself never imports matplotlib.
+results are there they are sent to the helper once (pickled, a few MB), and the helper draws them with workers it
+forks then, which inherit matplotlib, the fonts and the results, drawing beside them (:func:`draw_all`).  The
+command itself never imports matplotlib.
 
 Where fork is not available (Windows, macOS' default), with one core, one figure, or ``SNRGAIN_WORKERS=1``, the
 figures are drawn one after the other in this process: the bytes are the same either way (tested).
@@ -127,8 +128,8 @@ MARGIN_INCHES = 1.0
 def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, pil_kwargs=None, **rest) -> bool:
     """Write ``fig`` as ``savefig(target, format="png", dpi=dpi, bbox_inches="tight", ...)`` would, with one draw.
 
-    The figure is drawn once on its own Agg canvas widened by :data:`MARGIN_INCHES` on every side (as savefig
-    widens it for its tight box: the artists stay where they are, the figure's face fills the rest), and the
+    The figure is drawn once on its own Agg canvas widened by :data:`MARGIN_INCHES` on every side (savefig given
+    that box, writing the raw pixels: the artists stay where they are, the figure's face fills the rest), and the
     image is cut to what was drawn there (every pixel not of the face colour) and ``pad_inches`` around it.
     savefig instead measures every artist's extent (a second pass over all of them) and draws again into a canvas
     of that size: the same picture, cut to the ink instead of the text boxes (a few pixels tighter).
@@ -138,7 +139,6 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
     run on past it).  Returns False, having written nothing, otherwise."""
     import matplotlib as mpl
     import numpy as np
-    from matplotlib import _tight_bbox
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.layout_engine import PlaceHolderLayoutEngine
 
@@ -169,12 +169,23 @@ def _png_one_draw(fig, target, *, dpi=None, bbox_inches=None, pad_inches=None, p
     m = MARGIN_INCHES
     from matplotlib.transforms import Bbox
 
-    restore = _tight_bbox.adjust_bbox(fig, Bbox.from_extents(-m, -m, w + m, h + m), canvas.get_renderer())
+    # savefig draws the figure once on the widened box given it (no measuring first) and writes the raw pixels; the
+    # canvas' size in that draw gives their rows and columns.
+    sizes = []
+    cid = canvas.mpl_connect("draw_event", lambda event: sizes.append(event.canvas.get_width_height(physical=True)))
+    buf = io.BytesIO()
+    fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
     try:
-        canvas.draw()
-        image = np.asarray(canvas.buffer_rgba())
+        with ticks_fixed(fig):
+            fig.savefig(buf, format="rgba", dpi=dpi, bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m))
     finally:
-        restore()
+        canvas.mpl_disconnect(cid)
+        if engine is not None:
+            fig.set_layout_engine(engine)
+    if len(sizes) != 1 or len(buf.getbuffer()) != sizes[0][0] * sizes[0][1] * 4:
+        return False
+    cols_px, rows_px = sizes[0]
+    image = np.frombuffer(buf.getbuffer(), dtype=np.uint8).reshape(rows_px, cols_px, 4)
     packed = image.view(np.uint32)[..., 0]  # one 32-bit word a pixel
     ink = packed != np.array(np.round(np.multiply(face, 255)), dtype=np.uint8).view(np.uint32)[0]
     rows = np.flatnonzero(ink.any(axis=1))
@@ -225,9 +236,14 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
     buf = io.BytesIO()
     fig.set_layout_engine(None)  # a placeholder would make savefig draw once first
     try:
-        fig.savefig(
-            buf, format="svg", bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m), metadata=metadata, backend=backend
-        )
+        with ticks_fixed(fig):
+            fig.savefig(
+                buf,
+                format="svg",
+                bbox_inches=Bbox.from_extents(-m, -m, w + m, h + m),
+                metadata=metadata,
+                backend=backend,
+            )
     finally:
         fig.canvas.mpl_disconnect(cid)
         if engine is not None:
@@ -260,6 +276,43 @@ def _svg_one_draw(fig, target, *, bbox_inches=None, pad_inches=None, metadata=No
         with open(target, "wb") as f:
             f.write(data)
     return True
+
+
+@contextlib.contextmanager
+def ticks_fixed(fig):
+    """A context in which each plain axis of ``fig`` (a rectilinear, unscaled one, its ticks found by matplotlib's
+    automatic locator and plain number formatter, with no offset) has its ticks and labels fixed to those the axis
+    shows now: a draw asks each axis for its ticks as it draws them and again as it places the axis' label, the box
+    measured after the draw (an SVG's, :func:`_svg_one_draw`) once more, every time finding the tick positions and
+    formatting their labels anew.  The same ticks, labels and picture (the view limits do not change in a draw of
+    such axes); each axis' locator and formatter as they were after."""
+    from matplotlib.ticker import AutoLocator, FixedFormatter, FixedLocator, MaxNLocator, ScalarFormatter
+
+    kept = []
+    try:
+        for ax in fig.axes:
+            if ax.name != "rectilinear" or ax.get_aspect() != "auto" or ax.get_label() == "<colorbar>":
+                continue  # polar axes, equal-aspect ones (a draw may move their limits), colour bars: as they are
+            for axis in (ax.xaxis, ax.yaxis):
+                locator, formatter = axis.get_major_locator(), axis.get_major_formatter()
+                if (
+                    axis.get_scale() != "linear"
+                    or type(locator) not in (AutoLocator, MaxNLocator)
+                    or type(formatter) is not ScalarFormatter
+                ):
+                    continue  # (an axis sharing another's ticks finds them fixed already: they are one object)
+                locs = axis.get_majorticklocs()
+                labels = formatter.format_ticks(locs)
+                if formatter.get_offset():
+                    continue  # an offset or exponent written beside the axis: found at the draw as it is
+                kept.append((axis, locator, formatter))
+                axis.set_major_locator(FixedLocator(locs))
+                axis.set_major_formatter(FixedFormatter(labels))
+        yield
+    finally:
+        for axis, locator, formatter in reversed(kept):
+            axis.set_major_locator(locator)
+            axis.set_major_formatter(formatter)
 
 
 def svg_number(x: float) -> str:
@@ -428,7 +481,12 @@ def draw_all(
 ) -> list[bytes]:
     """The bytes of each job, in order: a job is (a function that makes the figure, "png" or "svg", savefig's
     keywords).  ``done()`` is called as each figure is finished.  ``cost``: each job's rough relative drawing time;
-    workers are handed the costliest first."""
+    the costliest are drawn first.
+
+    With more than one process to draw with (:func:`workers`), this process draws too: it forks one worker fewer
+    and takes the next job from the same list as they do (a thread of it hands each worker its next job as the
+    last comes back), so every process keeps drawing until the list is empty and they finish together; this one
+    keeps what it has loaded (fonts, measured texts), which a forked worker loads again."""
     global _JOBS
     from snrgain.errors import stop_if_asked
 
@@ -442,26 +500,63 @@ def draw_all(
                     done()
                 stop_if_asked()
         return out
-    from concurrent.futures import ProcessPoolExecutor, as_completed
+    import threading
+    from concurrent.futures import ProcessPoolExecutor
 
-    order = sorted(range(len(jobs)), key=lambda k: -cost[k]) if cost is not None else range(len(jobs))
+    pending = sorted(range(len(jobs)), key=lambda k: -cost[k]) if cost is not None else list(range(len(jobs)))
+    lock = threading.Lock()
+    drawn: dict[int, bytes] = {}
+    failed: list[BaseException] = []
+
+    def take() -> int | None:
+        with lock:
+            return pending.pop(0) if pending and not failed else None
+
+    def finished(k: int, data: bytes) -> None:
+        with lock:
+            drawn[k] = data
+            if done:
+                done()
+
+    def feed(k, future) -> None:  # one worker's jobs, one after the other, in a thread of this process
+        try:
+            while k is not None:
+                finished(k, future.result())
+                k = take()
+                if k is not None:
+                    future = pool.submit(_run, k)
+        except BaseException as exc:  # raised by this process below
+            with lock:
+                failed.append(exc)
+
     _JOBS = jobs
     pool = ProcessPoolExecutor(
-        max_workers=n,
+        max_workers=n - 1,
         mp_context=multiprocessing.get_context("fork"),
         initializer=_drawing_worker_start,
         initargs=(os.getpid(),),
     )
     try:
-        futures = {pool.submit(_run, k): k for k in order}
-        drawn: dict[int, bytes] = {}
-        for f in as_completed(futures):
-            drawn[futures[f]] = f.result()
-            if done:
-                done()
-            stop_if_asked()  # Ctrl-C: the figures not started are dropped (below), the command stops cleanly
+        # The workers' first jobs handed out here: the pool forks its workers at the first, before any thread of ours
+        firsts = [(k, pool.submit(_run, k)) for k in (take() for _ in range(n - 1)) if k is not None]
+        feeders = [threading.Thread(target=feed, args=first, daemon=True) for first in firsts]
+        for t in feeders:
+            t.start()
+        with drawing_settings():
+            while (k := take()) is not None:
+                make, fmt, savefig = jobs[k]
+                finished(k, figure_bytes(make(), fmt, **savefig))
+                stop_if_asked()  # Ctrl-C: the figures not started are dropped (below), the command stops cleanly
+        for t in feeders:
+            while t.is_alive():
+                t.join(0.05)
+                stop_if_asked()
+        if failed:
+            raise failed[0]
         return [drawn[k] for k in range(len(jobs))]
     finally:
+        with lock:
+            pending.clear()
         pool.shutdown(wait=True, cancel_futures=True)
         _JOBS = ()
 

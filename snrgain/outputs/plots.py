@@ -168,7 +168,7 @@ def blank_steps(kinds):
     good part of a figure's time.  A blank is the figure a function would make itself, so nothing drawn changes
     (tested).
 
-    First every blank, each a step; then each blank's axes get :data:`TICKS_AHEAD` major ticks, a blank a step
+    First every blank, each a step; then each blank's axes get :data:`TICKS_AHEAD` major ticks, an axis a step
     (matplotlib makes them as a draw first needs them, each a copy of the first tick's properties: a tenth of a
     figure's time).  A figure draws only as many as it has places for, each set up as on axes made then: the ticks'
     properties are set on every tick made so far."""
@@ -192,7 +192,7 @@ def blank_steps(kinds):
         for ax in axes:
             for axis in (ax.xaxis, ax.yaxis):
                 axis.get_major_ticks(TICKS_AHEAD)
-        yield
+                yield  # an axis a step: the results, when they come, wait for one axis' ticks at most
 
 
 def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: float = 0.0, wgap: float = 0.0):
@@ -921,7 +921,7 @@ def _barh(ax, y, widths, *, height: float, colors, edgecolors, lw: float, hatch=
             corners += [(0.0, bottom), (w, bottom), (w, bottom + height), (0.0, bottom + height)]
     if corners:
         ax.update_datalim(corners)
-    ax._request_autoscale_view()
+    ax.autoscale_view()  # as barh leaves them: the view fitted to the data limits (again as more is drawn)
 
 
 def has_site_plan(results, *, plan: dict | None = None) -> bool:
