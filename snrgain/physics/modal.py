@@ -91,10 +91,6 @@ between 6e-3 and 3e-2 (the rest go on as before, one evaluation lost)."""
 COARSE_NODES = 32
 """Points per piece while the secant closes in (1e-15 of the fine rule over lossy ground; only a nearly lossless
 earth, its branch point near the real axis, needs more, and the fine rule then finishes the search)."""
-STEER_NODES = (12, 24)
-"""Points per piece of Newton's first two steps (:func:`_newton`): they only steer toward the root (on the 1029 wires
-of the tests' grid where the check rule holds, 12 points leave the integrals within 1e-3 of the fine rule's, 24 within
-1e-6); the steps after them sum the coarse and the check rules together."""
 
 
 def _pair(parts, edges, adaptive: bool, nodes: int = FINE_NODES) -> tuple[complex, complex]:
