@@ -131,3 +131,12 @@ def test_layout_command_prints_and_writes_feet(tmp_path):
     res = CliRunner().invoke(cli, ["layout", str(src), "--keep", "1", "--format", "json"])
     out = json.loads(res.stdout)
     assert "position_m" in out["layouts"][0]["candidates"][0]  # JSON in metres
+
+
+def test_a_value_that_rounds_to_zero_reads_without_a_minus_sign():
+    # the demo's short receive vertical beside the TX vertical: an SNR gain of -0.004 dB read "-0.0 (-0.0 to -0.0)"
+    from snrgain.outputs.output import _f
+
+    assert [_f(x) for x in (-0.004, -0.049, 0.0, 0.04)] == ["+0.0"] * 4
+    assert (_f(-0.05), _f(-1.26), _f(0.06)) == ("-0.1", "-1.3", "+0.1")
+    assert _f(-0.004, "{:.1f}") == "0.0" and _f(float("nan")) == "-"

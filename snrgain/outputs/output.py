@@ -103,7 +103,10 @@ def _f(x, fmt="{:+.1f}"):
         return "-"
     if np.isinf(x):
         return "inf" if x > 0 else "-inf"
-    return fmt.format(x)
+    out = fmt.format(x)
+    if out.startswith("-") and float(out) == 0.0:  # a small negative that rounds to zero reads 0.0, not -0.0
+        out = fmt.format(0.0)
+    return out
 
 
 def _preamp_cell(limited: bool, gain_db) -> str:
@@ -262,7 +265,7 @@ def target_table(r: Results, i: int, lab=None):
         verdict.append(f"Best toward {t['name']}: ", style="bold")
         verdict.append(f"{best}", style="bold green")
         verdict.append(
-            f", {med:+.1f} dB over {reference} (median; {p10:+.1f} to {p90:+.1f} dB), "
+            f", {_f(med)} dB over {reference} (median; {_f(p10)} to {_f(p90)} dB), "
             f"{float(lab.get('best_margin_db', target=i)):.1f} dB ahead of {runner_up}."
         )
     else:
