@@ -1,5 +1,6 @@
 """Shared paths and helpers for the tests."""
 
+import json
 import os
 import tomllib
 from pathlib import Path
@@ -94,3 +95,25 @@ def _private_sky_cache(tmp_path_factory):
         os.environ.pop(skycache.ENV_DIR, None)
     else:
         os.environ[skycache.ENV_DIR] = old
+
+
+def json_numbers(text: str, *, strings: bool = False) -> list:
+    """Every number of a JSON result in order, keys sorted (or, with ``strings``, everything else in it): two
+    results compared number by number to a tolerance."""
+    out = []
+
+    def walk(v):
+        if isinstance(v, dict):
+            for k in sorted(v):
+                walk(v[k])
+        elif isinstance(v, list):
+            for x in v:
+                walk(x)
+        elif isinstance(v, (int, float)) and not isinstance(v, bool):
+            if not strings:
+                out.append(float(v))
+        elif strings:
+            out.append(v)
+
+    walk(json.loads(text))
+    return out

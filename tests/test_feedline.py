@@ -16,6 +16,7 @@ from snrgain.model.feedline import antenna_end, antenna_loads, port_amplitude
 from snrgain.physics import feedline as phys
 from snrgain.physics.ground import Ground
 from snrgain.sky.noise import LocalSource
+from tests.conftest import json_numbers
 
 NEC_CASES = json.loads((Path(__file__).parent / "nec" / "feedline.json").read_text())["cases"]
 CASE = NEC_CASES[0]["case"]
@@ -481,31 +482,10 @@ def test_a_ground_spread_works_every_grounds_field_at_once_to_the_same_results(m
     forget()
     forget_geometry()
     alone = to_json(snrgain.evaluate(text))
-    a, b = _numbers(batched), _numbers(alone)
+    a, b = json_numbers(batched), json_numbers(alone)
     assert len(a) == len(b)
     np.testing.assert_allclose(a, b, rtol=1e-12, atol=1e-12)
-    assert _numbers(batched, strings=True) == _numbers(alone, strings=True)
-
-
-def _numbers(text: str, *, strings: bool = False) -> list:
-    """Every number of a JSON result in order (or, with ``strings``, everything else in it)."""
-    out = []
-
-    def walk(v):
-        if isinstance(v, dict):
-            for k in sorted(v):
-                walk(v[k])
-        elif isinstance(v, list):
-            for x in v:
-                walk(x)
-        elif isinstance(v, (int, float)) and not isinstance(v, bool):
-            if not strings:
-                out.append(float(v))
-        elif strings:
-            out.append(v)
-
-    walk(json.loads(text))
-    return out
+    assert json_numbers(batched, strings=True) == json_numbers(alone, strings=True)
 
 
 def test_nothing_changes_for_antennas_without_a_feed_line():

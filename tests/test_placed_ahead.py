@@ -6,7 +6,6 @@ candidate's wire worked when its termination search asks."""
 from __future__ import annotations
 
 import importlib.util
-import json
 from pathlib import Path
 
 import numpy as np
@@ -17,6 +16,7 @@ from noisemodels import halfspace
 from snrgain.memo import forget
 from snrgain.model import placed
 from snrgain.outputs.output import to_json
+from tests.conftest import json_numbers
 
 REPO = Path(__file__).resolve().parents[1]
 
@@ -36,23 +36,6 @@ def test_the_interpolations_one_gather_is_the_term_by_term_sum_to_the_bit(rows, 
     w = rng.normal(size=(stencil, nodes))
     term_by_term = halfspace._weighted(lambda k: flat[:, at[k]], w.T)
     np.testing.assert_array_equal(halfspace._gathered(flat, at, w), term_by_term)
-
-
-def _numbers(text: str) -> list[float]:
-    out = []
-
-    def walk(v):
-        if isinstance(v, dict):
-            for k in sorted(v):
-                walk(v[k])
-        elif isinstance(v, list):
-            for x in v:
-                walk(x)
-        elif isinstance(v, (int, float)) and not isinstance(v, bool):
-            out.append(float(v))
-
-    walk(json.loads(text))
-    return out
 
 
 @pytest.mark.parametrize("feed_lines", [False, True])
@@ -75,7 +58,7 @@ def test_the_other_wires_worked_ahead_give_what_each_termination_search_works(mo
     halfspace.forget_geometry()
     alone = to_json(snrgain.evaluate(text))
     assert n_ahead < len(calls)
-    a, b = _numbers(ahead), _numbers(alone)
+    a, b = json_numbers(ahead), json_numbers(alone)
     assert len(a) == len(b)
     np.testing.assert_allclose(a, b, rtol=1e-9, atol=1e-9)
 

@@ -435,20 +435,31 @@ def _through_currents_sources(antenna, pairs, freq_hz: float, at, ground, segmen
     az = np.array([float(bearing_to(src, at[None, :])[0]) for src, _ in pairs])
     el = np.array([float(src.elevation_rad) for src, _ in pairs])
     rv, rh = antenna.complex_response(freq_hz, az, el)
+    r_v, r_h = reflection_coefficients(ground, el, freq_hz)
+    return _scaled_by_plane_waves(v_src, (rv, rh), (pts, dirs, cur), freq_hz, az, el, r_v, r_h)
+
+
+def _scaled_by_plane_waves(v_src, response, segments, freq_hz: float, az, el, r_v, r_h) -> np.ndarray:
+    """Each received EMF ``v_src`` (K,) over the same currents' EMF from a unit plane wave from (``az``, ``el``)
+    (K,) [rad] in the polarisation the antenna's ``response`` (rv, rh) holds more of, times that response: what
+    :func:`_through_currents` gives, for K directions at once (plane_wave_field, every direction together).
+    ``segments``: (points, directions, currents) as arrays; ``r_v``, ``r_h``: the ground's reflection
+    coefficients at ``el`` (K,) or one pair for all."""
+    rv, rh = response
+    pts, dirs, cur = segments
     k = 2 * np.pi * freq_hz / C_M_PER_S
     ca, sa, ce, se = np.cos(az), np.sin(az), np.cos(el), np.sin(el)
-    toward = np.stack([ce * sa, ce * ca, se], axis=1)  # (S, 3)
+    toward = np.stack([ce * sa, ce * ca, se], axis=1)  # (K, 3)
     mirror = toward * np.array([1.0, 1.0, -1.0])
-    r_v, r_h = reflection_coefficients(ground, el, freq_hz)
-    direct = np.exp(1j * k * pts @ toward.T)  # (N, S)
+    direct = np.exp(1j * k * pts @ toward.T)  # (N, K)
     reflected = np.exp(1j * k * pts @ mirror.T)
     dc = dirs * cur[:, None]  # (N, 3)
     pol_v = (direct * (dc[:, :1] * (-se * sa) + dc[:, 1:2] * (-se * ca) + dc[:, 2:] * ce)).sum(axis=0) + r_v * (
         reflected * (dc[:, :1] * (se * sa) + dc[:, 1:2] * (se * ca) + dc[:, 2:] * ce)
     ).sum(axis=0)
     pol_h = ((direct + r_h * reflected) * (dc[:, :1] * ca - dc[:, 1:2] * sa)).sum(axis=0)
-    out = np.zeros(len(pairs), dtype=complex)
-    for j in range(len(pairs)):
+    out = np.zeros(len(v_src), dtype=complex)
+    for j in range(len(v_src)):
         best = None
         for r, v_pw in ((complex(rv[j]), pol_v[j]), (complex(rh[j]), pol_h[j])):
             if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
@@ -1480,29 +1491,8 @@ def _through_currents_many(antenna, src, freq_hz: float, at, ground, kind: str, 
     az = bearing_to(src, at)
     el = float(src.elevation_rad)
     rv, rh = antenna.complex_response(freq_hz, az, np.full(n, el))
-    # a unit plane wave from each place's direction toward the source (plane_wave_field, every azimuth at once)
-    k = 2 * np.pi * freq_hz / C_M_PER_S
-    ca, sa = np.cos(az), np.sin(az)
-    ce, se = np.cos(el), np.sin(el)
-    toward = np.stack([ce * sa, ce * ca, np.full(n, se)], axis=1)  # (K, 3)
-    mirror = toward * np.array([1.0, 1.0, -1.0])
     r_v, r_h = (complex(c[0]) for c in reflection_coefficients(ground, np.array([el]), freq_hz))
-    direct = np.exp(1j * k * pts @ toward.T)  # (N, K)
-    reflected = np.exp(1j * k * pts @ mirror.T)
-    dc = dirs * cur[:, None]  # (N, 3)
-    pol_v = (direct * (dc[:, :1] * (-se * sa) + dc[:, 1:2] * (-se * ca) + dc[:, 2:] * ce)).sum(axis=0) + r_v * (
-        reflected * (dc[:, :1] * (se * sa) + dc[:, 1:2] * (se * ca) + dc[:, 2:] * ce)
-    ).sum(axis=0)
-    pol_h = ((direct + r_h * reflected) * (dc[:, :1] * ca - dc[:, 1:2] * sa)).sum(axis=0)
-    out = np.zeros(n, dtype=complex)
-    for j in range(n):
-        best = None
-        for r, v_pw in ((complex(rv[j]), pol_v[j]), (complex(rh[j]), pol_h[j])):
-            if abs(v_pw) > 0 and (best is None or abs(r) > abs(best[0])):
-                best = (r, v_pw)
-        if best is not None and best[0] != 0:
-            out[j] = v_src[j] * best[0] / best[1]
-    return out
+    return _scaled_by_plane_waves(v_src, (rv, rh), (pts, dirs, cur), freq_hz, az, np.full(n, el), r_v, r_h)
 
 
 def _field_power(src, point_m, freq_hz: float, ground) -> float:

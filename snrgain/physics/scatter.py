@@ -463,18 +463,30 @@ ALONG_MEMO_POINTS = 20_000
 """Larger requests (a layout's many places at once) are worked afresh rather than kept."""
 
 
-def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: np.ndarray) -> np.ndarray:
+def _on_table(tx: TxVertical, pts: np.ndarray) -> tuple:
+    """(offsets from the vertical (N, 2), distances rho (N,) [m], log rho, the field table's log-distance grid) of
+    plan points, for reading the vertical's field tables (:func:`_between`, :func:`_interpolator`)."""
     d = pts - np.asarray(tx.position_m, dtype=float)[None, :]
     rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
+    return d, rho, np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
+
+
+def _between(grid: np.ndarray, x: np.ndarray) -> tuple:
+    """(j, lo, hi): each point's node, grid[j] <= x < grid[j + 1] (the last of equal nodes), and the table rows the
+    points fall between."""
+    j = np.searchsorted(grid, x, side="right") - 1
+    return j, max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)
+
+
+def _field_along_now(tx: TxVertical, freq_hz: float, pts: np.ndarray, heights: np.ndarray) -> np.ndarray:
+    d, rho, lr, grid = _on_table(tx, pts)
     k = 2 * np.pi * freq_hz / C_M_PER_S
-    lr, grid = np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
     out = np.zeros((len(pts), 3), dtype=complex)
     zs = np.unique(heights, return_counts=True)[0]  # counted: a plain np.unique would load numpy.ma (~15 ms)
     for z in zs:
         sel = slice(None) if len(zs) == 1 else np.flatnonzero(heights == z)  # one height: no selection
         x, r = lr[sel], rho[sel]
-        j = np.searchsorted(grid, x, side="right") - 1  # grid[j] <= x < grid[j + 1] (the last of equal nodes)
-        lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)  # the nodes the points fall between
+        j, lo, hi = _between(grid, x)
         e_rho, e_z = _field_table(tx, freq_hz, float(z), lo, hi)
         phase = np.exp(-1j * k * r)
         at = _interpolator(x, grid, j)
@@ -494,12 +506,9 @@ def _field_along_wire(tx: TxVertical, freq_hz: float, pts, height_m: float, u: n
     u = np.asarray(u, dtype=float)
 
     def now():
-        d = pts - np.asarray(tx.position_m, dtype=float)[None, :]
-        rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
+        d, rho, lr, grid = _on_table(tx, pts)
         k = 2 * np.pi * freq_hz / C_M_PER_S
-        lr, grid = np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
-        j = np.searchsorted(grid, lr, side="right") - 1
-        lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)
+        j, lo, hi = _between(grid, lr)
         e_rho, _ = _field_table(tx, freq_hz, float(height_m), lo, hi)
         er = _interpolator(lr, grid, j)(e_rho) * np.exp(-1j * k * rho)
         return er * d[:, 0] / rho * u[0] + er * d[:, 1] / rho * u[1]
@@ -526,12 +535,9 @@ def _lead_emfs(tx: TxVertical, freq_hz: float, ends, height_m: float) -> np.ndar
     t, wq = lead_rule()
     zs = (t + 1) * height_m / 2
     ends = np.ascontiguousarray(np.atleast_2d(np.asarray(ends, dtype=float)))
-    d = ends - np.asarray(tx.position_m, dtype=float)[None, :]
-    rho = np.maximum(np.hypot(d[:, 0], d[:, 1]), 4 * tx.radius_m)
+    _, rho, lr, grid = _on_table(tx, ends)
     k = 2 * np.pi * freq_hz / C_M_PER_S
-    lr, grid = np.log(rho), np.log(np.maximum(TABLE_RHO_M, 4 * tx.radius_m))
-    j = np.searchsorted(grid, lr, side="right") - 1
-    lo, hi = max(int(j.min()), 0), min(int(j.max()) + 1, len(grid) - 1)
+    j, lo, hi = _between(grid, lr)
     phase = np.exp(-1j * k * rho)
     at = _interpolator(lr, grid, j)
     out = np.zeros((len(ends) * LEAD_POINTS, 3), dtype=complex)  # laid out as wire_emfs asks for the points
