@@ -51,20 +51,21 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     with Drawer("svg", modules=_RESULT_MODULES) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
-            ahead = _plan_ahead(drawer, plan, "svg", {"bbox_inches": "tight"}, sc)
-            results = _evaluated(sc, allow_long)
+            ahead = _plan_ahead(drawer, plan, "svg", rep.SVG_OPTIONS, sc)
+            early = _Ahead(drawer, "svg", rep.SVG_OPTIONS, plots.DRAWN_AHEAD)
+            results = _evaluated(sc, allow_long, observe=early)
         for w in results.warnings:
             click.echo(f"warning: {w}", err=True)
 
         light = plots.for_drawing(results)  # what the figures' process needs of the results (a tenth of them)
 
         def draw(jobs, **kw):
+            jobs = [(_on(make, results, light), fmt, opts) for make, fmt, opts in jobs]
             plans = [k for k, (make, _, _) in enumerate(jobs) if getattr(make, "func", None) is plots.site_plan]
-            return drawer.draw(
-                [(_on(make, results, light), fmt, opts) for make, fmt, opts in jobs],
-                ahead={k: ahead for k in plans} if ahead and _same_looks(results, plan) else None,
-                **kw,
-            )
+            drawn_ahead = early.matching(jobs, results)
+            if ahead and _same_looks(results, plan):
+                drawn_ahead.update({k: ahead for k in plans})
+            return drawer.draw(jobs, ahead=drawn_ahead, **kw)
 
         with progress(None, "report: drawing the figures"):
             html = rep.render(results, plan=plan, draw=draw)
@@ -112,10 +113,72 @@ def _load(scenario, *, nside, p372_dir, reference=None, band=None):
     return sc, plan_of(sc, data=data)
 
 
-def _evaluated(sc, allow_long):
+def _evaluated(sc, allow_long, observe=None):
     from snrgain.model.pipeline import evaluate
 
-    return evaluate(sc, allow_long=allow_long)
+    return evaluate(sc, allow_long=allow_long, observe=observe)
+
+
+class _Ahead:
+    """Hands the figures' process (``drawer``, :class:`snrgain.outputs.drawing.Drawer`) the figures that can be drawn
+    before the results, as the pipeline makes what they need (:func:`snrgain.model.pipeline.evaluate`'s
+    ``observe``): the noise sky once the sky is built, each target's azimuth and elevation patterns once the antennas
+    are steered, each from a Preview of the results (:func:`snrgain.decide.decisions.preview`).  The figures' process
+    draws them while this one goes on evaluating.  :meth:`matching` then names the jobs whose figure was handed
+    ahead from what the results show too (:func:`snrgain.outputs.plots.drawn_alike`); any other is drawn from the
+    results."""
+
+    def __init__(self, drawer, fmt: str, savefig: dict, names):
+        self._drawer = drawer
+        self._fmt = fmt
+        self._savefig = savefig
+        self._names = set(names)
+        self._sent: dict = {}  # (figure function, its keywords) -> (key, the preview it is drawn from)
+
+    def __call__(self, stage: str, sc, made) -> None:
+        from snrgain.decide.decisions import preview
+        from snrgain.outputs import plots
+
+        if not self._drawer.active:
+            return
+        if stage == "sky" and "sky" in self._names and made.maps:
+            early = plots.for_drawing(preview(sc, skies=made))  # the sky at the figure's moment only
+            self._hand(plots.noise_sky, early, {})
+        elif stage == "cuts":
+            early = preview(sc, cuts=made)
+            for name, fn in (("azimuth", plots.azimuth_pattern), ("elevation", plots.elevation_pattern)):
+                if name in self._names:
+                    for i in range(len(sc.targets)):
+                        self._hand(fn, early, {"target_index": i})
+
+    def _hand(self, fn, early, keywords: dict) -> None:
+        from functools import partial
+
+        key = f"{fn.__name__}-{len(self._sent)}"
+        self._sent[(fn, tuple(sorted(keywords.items())))] = (key, early)
+        self._drawer.ahead(key, (partial(fn, early, **keywords), self._fmt, self._savefig))
+
+    def matching(self, jobs, results) -> dict[int, str]:
+        """Job index -> the key of the figure handed ahead for it (:meth:`snrgain.outputs.drawing.Drawer.draw`'s
+        ``ahead``), for each job that draws a figure handed ahead, in the same format and options, from results
+        that show what its preview showed."""
+        from snrgain.outputs import plots
+
+        out = {}
+        alike: dict[int, bool] = {}  # by preview: compared once
+        for k, (make, fmt, savefig) in enumerate(jobs):
+            try:
+                found = self._sent.get((make.func, tuple(sorted(make.keywords.items()))))
+            except (AttributeError, TypeError):  # not a figure function's partial, or keywords that do not hash
+                continue
+            if found is None or fmt != self._fmt or savefig != self._savefig:
+                continue
+            key, early = found
+            if id(early) not in alike:
+                alike[id(early)] = plots.drawn_alike(early, results)
+            if alike[id(early)]:
+                out[k] = key
+        return out
 
 
 def _plan_ahead(drawer, plan, fmt: str, savefig: dict, sc) -> str | None:
@@ -182,7 +245,8 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         with progress(None, f"figures: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
             ahead = _plan_ahead(drawer, plan if "plan" in names else None, fmt, plots.SAVE_OPTIONS, sc)
-            results = _evaluated(sc, allow_long)
+            early = _Ahead(drawer, fmt, plots.SAVE_OPTIONS, names)
+            results = _evaluated(sc, allow_long, observe=early)
         if "plan" in names and not plots.has_site_plan(results, plan=plan):
             if only:
                 raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
@@ -207,15 +271,12 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         def writer(k):
             def write(tmp_path):
                 if not drawn:  # the first file draws them all, side by side, inside the set's temporary folder
+                    figs = [(partial(plots.FIGURES[n], light, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs]
+                    drawn_ahead = early.matching(figs, results)
+                    if ahead and _same_looks(results, plan):
+                        drawn_ahead.update({k: ahead for k, (_, n, _) in enumerate(jobs) if n == "plan"})
                     drawn.extend(
-                        drawer.draw(
-                            [(partial(plots.FIGURES[n], light, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs],
-                            done=step,
-                            cost=[plots.FIGURE_COST[n] for _, n, _ in jobs],
-                            ahead={k: ahead for k, (_, n, _) in enumerate(jobs) if n == "plan"}
-                            if ahead and _same_looks(results, plan)
-                            else None,
-                        )
+                        drawer.draw(figs, done=step, cost=[plots.FIGURE_COST[n] for _, n, _ in jobs], ahead=drawn_ahead)
                     )
                 Path(tmp_path).write_bytes(drawn[k])
 

@@ -8,7 +8,7 @@ import numpy as np
 
 from noisemodels import p372
 from snrgain.decide.plan import station_plan
-from snrgain.model.results import AntennaResult, Notice, PatternCuts, Results, rank_for_target
+from snrgain.model.results import AntennaResult, Named, Notice, PatternCuts, Preview, Results, rank_for_target
 from snrgain.physics import chain as chainmod
 from snrgain.scenario import Scenario
 from snrgain.sky import noise as noisemod
@@ -89,9 +89,8 @@ def _tx_rows(sc: Scenario) -> list[dict]:
 def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult], cuts: PatternCuts) -> Results:
     """The Results of a scenario from its per-antenna figures: per target the candidates ranked by the median SNR
     gain toward it, and the station plan on that same statistic (snrgain.decide.plan)."""
-    ground = sc.site.ground
     reference, candidates = antennas[0], antennas[1:]
-    targets = [_target_dict(t, w, tt) for t, w, tt in zip(sc.targets, sc.target_weights, sc.target_times)]
+    targets = _target_dicts(sc)
     plan = station_plan(
         [a.name for a in antennas],
         np.array([a.snr_gain_median_db for a in antennas]),
@@ -103,15 +102,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
     )
     return Results(
         source=sc.source,
-        site={
-            "name": sc.site.name,
-            "latitude_deg": sc.site.latitude_deg,
-            "longitude_deg": sc.site.longitude_deg,
-            "ground": "perfect" if ground is None else ground.name,
-            "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
-            "ground_permittivity": None if ground is None else ground.permittivity,
-            "length_unit": sc.site.length_unit,
-        },
+        site=_site_dict(sc),
         freq_hz=sc.freq_hz,
         bandwidth_hz=sc.bandwidth_hz,
         months=list(sc.times.months),
@@ -130,15 +121,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         tx_vertical=_tx_rows(sc),
         cuts=cuts,
         lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),
-        local_sources=[
-            {
-                "name": s.name,
-                "bearing_deg": float(np.degrees(s.bearing_rad)),
-                "elevation_deg": float(np.degrees(s.elevation_rad)),
-                "spread_deg": float(np.degrees(s.spread_rad)),
-            }
-            for s in sc.noise.local
-        ],
+        local_sources=_local_source_dicts(sc),
         site_plan=_site_plan(sc),
     )
 
@@ -186,6 +169,55 @@ def _uncertainty_dict(sc: Scenario) -> dict:
         "seed": u.seed,
         "beat_by_db": u.beat_by_db,
     }
+
+
+def preview(sc: Scenario, *, skies: noisemod.SkySeries | None = None, cuts: PatternCuts | None = None) -> Preview:
+    """What the figures show of ``sc`` before its results (:class:`snrgain.model.results.Preview`): the fields
+    :func:`decide` fills from the scenario, made by the same functions, with the noise sky and the pattern cuts as
+    the stages make them (``sc`` as steered, for the cuts: :func:`snrgain.model.pipeline.evaluate`'s
+    ``observe``)."""
+    named = [Named(a.name, a.family) for a in sc.antennas]
+    return Preview(
+        site=_site_dict(sc),
+        freq_hz=sc.freq_hz,
+        months=list(sc.times.months),
+        utc_hours=list(sc.times.utc_hours),
+        targets=_target_dicts(sc),
+        local_sources=_local_source_dicts(sc),
+        reference=named[0],
+        candidates=named[1:],
+        noise=skies,
+        cuts=cuts,
+    )
+
+
+def _site_dict(sc: Scenario) -> dict:
+    ground = sc.site.ground
+    return {
+        "name": sc.site.name,
+        "latitude_deg": sc.site.latitude_deg,
+        "longitude_deg": sc.site.longitude_deg,
+        "ground": "perfect" if ground is None else ground.name,
+        "ground_conductivity_s_per_m": None if ground is None else ground.conductivity_s_per_m,
+        "ground_permittivity": None if ground is None else ground.permittivity,
+        "length_unit": sc.site.length_unit,
+    }
+
+
+def _local_source_dicts(sc: Scenario) -> list[dict]:
+    return [
+        {
+            "name": s.name,
+            "bearing_deg": float(np.degrees(s.bearing_rad)),
+            "elevation_deg": float(np.degrees(s.elevation_rad)),
+            "spread_deg": float(np.degrees(s.spread_rad)),
+        }
+        for s in sc.noise.local
+    ]
+
+
+def _target_dicts(sc: Scenario) -> list[dict]:
+    return [_target_dict(t, w, tt) for t, w, tt in zip(sc.targets, sc.target_weights, sc.target_times)]
 
 
 def _target_dict(t, w, times) -> dict:

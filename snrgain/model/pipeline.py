@@ -51,7 +51,7 @@ from snrgain.scenario import Scenario, load
 from snrgain.sky import noise as noisemod
 
 
-def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: bool = False) -> Results:
+def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: bool = False, observe=None) -> Results:
     """Run a scenario (path, TOML text, dict, or a loaded Scenario) and return Results.
 
     ``p372_dir``: folder of the ITU-R P.372 coefficient files, used when
@@ -59,6 +59,12 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: boo
     estimated cost passes :data:`MAX_SECONDS` or :data:`MAX_MEMORY_BYTES` is
     refused before any work (:class:`snrgain.errors.TooLargeError`, with the
     estimate) unless ``allow_long``.
+
+    ``observe``: called with products of the stages as they are made, before the results, for what can start on
+    them (the command line's figures: :func:`snrgain.decide.decisions.preview`): ``observe("sky", sc, skies)``
+    once the noise sky is built, ``observe("cuts", sc, cuts)`` once the antennas are steered (``sc`` as steered,
+    ``cuts`` its :func:`pattern_cuts`).  What it is given is the pipeline's own (frozen records): it must not
+    change it, and what it returns is let go.
 
     >>> r = evaluate("scenarios/marrow-fen.toml")
     >>> float(np.nanmax(abs(r.reference.snr_gain_db)))  # the reference against itself
@@ -69,10 +75,15 @@ def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: boo
     grid = sky_grid(sc)
     sc = resolve_sources(sc)
     skies = build_sky(sc, grid)
+    if observe is not None:
+        observe("sky", sc, skies)
     sc = steer(with_structures(sc), grid, skies)
+    cuts = pattern_cuts(sc)
+    if observe is not None:
+        observe("cuts", sc, cuts)
     nominal = products(sc, sc.antennas, grid, skies)
     spread = snr_spread(sc, grid, skies, nominal)
-    results = decide(sc, skies, antenna_results(sc, nominal, skies, spread), pattern_cuts(sc))
+    results = decide(sc, skies, antenna_results(sc, nominal, skies, spread), cuts)
     return with_strong_signals(sc, results)
 
 

@@ -115,6 +115,41 @@ class PatternCuts:
     elevation: dict[str, np.ndarray]
 
 
+@record
+class Named:
+    """An antenna as the figures tell it apart: its name and family (its colour, line and marker follow from them and
+    from its place in the scenario's order, snrgain.outputs.style)."""
+
+    name: str
+    family: str
+
+
+@record(repr=False)
+class Preview:
+    """What the figures of a scenario show that is known before its results: the site, the targets, the antennas'
+    names and families, and, as the stages make them, the noise sky (``noise``) and the pattern cuts (``cuts``);
+    made by :func:`snrgain.decide.decisions.preview` with the same functions that fill a :class:`Results`.  The
+    command line's figures' process draws the noise sky and the patterns from it while the scenario is still
+    evaluated, and keeps them where the results turn out to show the same (snrgain.outputs.plots.drawn_alike).
+    The fields the figures read are the :class:`Results`' own."""
+
+    site: dict[str, Any]
+    freq_hz: float
+    months: list[int]
+    utc_hours: list[float]
+    targets: list[dict[str, Any]]
+    local_sources: list[dict[str, Any]]
+    reference: Named
+    candidates: list[Named]
+    noise: SkySeries | None = None
+    cuts: PatternCuts | None = None
+
+    @property
+    def antennas(self) -> list[Named]:
+        """The reference, then the candidates."""
+        return [self.reference, *self.candidates]
+
+
 @record(repr=False)
 class Results:
     """Everything ``evaluate`` computed.  ``candidates`` are in the scenario's order; ``target_results`` rank them

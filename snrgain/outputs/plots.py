@@ -121,13 +121,12 @@ def blank_kinds(
     results, with how many of each: an azimuth and an elevation pattern per target, the hours' panels; with
     ``n_candidates`` (the antennas besides the reference) the ranking chart's panels, with ``n_diffuse`` (the diffuse
     noise components the scenario asks for) the sky's.  A kind given wrong only leaves its blank unused."""
-    kinds = [
-        ({"polar": True, "figsize": (7.5, 7.0)}, n_targets),
-        ({"figsize": (8.0, 4.8)}, n_targets),
-        ({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1),
-    ]
+    kinds = [({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1)]
     if n_candidates:
         kinds.append((_ranking_kind(n_candidates, n_targets), 1))
+    # Those that need the results first: the figures drawn ahead (snrgain.outputs.plots.DRAWN_AHEAD) may be drawn
+    # before their blanks are made (the command line hands them over as the pipeline makes the sky and the cuts).
+    kinds += [({"polar": True, "figsize": (7.5, 7.0)}, n_targets), ({"figsize": (8.0, 4.8)}, n_targets)]
     if n_diffuse is not None:
         kinds.append((_sky_kind(n_diffuse + 1), 1))
     return kinds
@@ -1201,10 +1200,49 @@ def for_drawing(results):
     from dataclasses import replace
 
     noise = getattr(results, "noise", None)
-    if not hasattr(results, "to_xarray") or noise is None or not noise.maps:
+    if not hasattr(results, "candidates") or noise is None or not noise.maps:  # (a labelled Dataset as it is)
         return results
     moment = sky_moment(results)
     return replace(results, noise=replace(noise, maps={moment: noise.maps[moment]} if moment in noise.maps else {}))
+
+
+DRAWN_AHEAD = ("azimuth", "elevation", "sky")
+"""The figures (by short name, :data:`FIGURES`) that can be drawn from a Preview of the results
+(:func:`snrgain.decide.decisions.preview`): the patterns from the cuts, the noise sky from the sky."""
+
+
+def drawn_alike(early, results) -> bool:
+    """Whether the figures of :data:`DRAWN_AHEAD` drawn from ``early`` (a Preview, or what :func:`for_drawing` made
+    of it) are those ``results`` give: the same site, frequency, months and hours, targets and placed sources, the
+    same antennas (names, families, order), and the same pattern cuts and noise sky at :func:`sky_moment` where the
+    preview has them (the very arrays, or equal ones).  What the figures read of the results, and nothing else."""
+    if (
+        early.site != results.site
+        or early.freq_hz != results.freq_hz
+        or early.months != results.months
+        or early.utc_hours != results.utc_hours
+        or early.targets != results.targets
+        or early.local_sources != results.local_sources
+        or [(a.name, a.family) for a in early.antennas] != [(a.name, a.family) for a in results.antennas]
+    ):
+        return False
+    if early.cuts is not None and early.cuts is not results.cuts:
+        a, b = early.cuts, results.cuts
+        if b is None or not (
+            np.array_equal(a.azimuth_deg, b.azimuth_deg)
+            and np.array_equal(a.elevation_deg, b.elevation_deg)
+            and all(
+                x.keys() == y.keys() and all(np.array_equal(x[k], y[k], equal_nan=True) for k in x)
+                for x, y in ((a.azimuth, b.azimuth), (a.elevation, b.elevation))
+            )
+        ):
+            return False
+    if early.noise is not None and early.noise.maps:
+        moment = sky_moment(results)
+        maps = results.noise.maps if results.noise is not None else None
+        if not maps or moment not in maps or early.noise.maps.get(moment) is not maps[moment]:
+            return False  # another sky (the very components are compared: they are the pipeline's own)
+    return True
 
 
 FIGURES = {

@@ -68,6 +68,10 @@ MODELS = [
     ),
 ]
 
+SVG_OPTIONS = {"bbox_inches": "tight", "svg_text": True}
+"""How the report's figures are saved (snrgain.outputs.drawing.save_figure): cut to what is drawn, their letters as
+text, which the reader can search and copy (the page's text and the figures' alike)."""
+
 CSS = """
 body { font-family: system-ui, sans-serif; margin: 2em auto; max-width: 1100px; color: #1b1b1b; line-height: 1.4; }
 h1 { font-size: 1.6em; margin-bottom: 0.2em; }
@@ -318,11 +322,11 @@ def figure_makers(r, *, plan: dict | None = None) -> list[tuple[str, object, str
                 "its signals arrive.",
             )
         )
-    month_index, hour_index = plots.sky_moment(r)
+    month_index, hour_index = plots.sky_moment(r)  # the sky figure's own moment, named in its caption
     figs.append(
         (
             "Noise sky",
-            partial(plots.noise_sky, r, month_index=month_index, hour_index=hour_index),
+            partial(plots.noise_sky, r),
             f"Brightness of each diffuse noise component at {r.utc_hours[hour_index]:g} UTC in month "
             f"{r.months[month_index]} (the middle of the listening months and hours), interpolated on the sphere "
             "between the model's pixels; grey where no noise arrives.",
@@ -389,7 +393,7 @@ def render(results, *, title: str | None = None, plan: dict | None = None, draw=
     makers = figure_makers(r, plan=plan)
     cost_of = {fn: plots.FIGURE_COST[name] for name, fn in plots.FIGURES.items()}
     cost = [cost_of.get(getattr(make, "func", None), 1.0) for _, make, _ in makers]
-    drawn = (draw or draw_all)([(make, "svg", {"bbox_inches": "tight"}) for _, make, _ in makers], cost=cost)
+    drawn = (draw or draw_all)([(make, "svg", SVG_OPTIONS) for _, make, _ in makers], cost=cost)
     for i, ((name, _, caption), svg) in enumerate(zip(makers, drawn)):
         parts.append(
             f"<figure id='figure-{i + 1}'>{_inline(svg)}<figcaption>Figure {i + 1}. {_e(name)}: {_e(caption)}"

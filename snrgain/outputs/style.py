@@ -93,8 +93,9 @@ def antenna_looks(names, families) -> dict[str, Look]:
 
 
 def looks_of(results) -> dict[str, Look]:
-    """The looks of a Results object or of its labelled Dataset (antennas in the scenario's order)."""
-    if hasattr(results, "to_xarray"):
+    """The looks of a Results object (or a Preview of one) or of its labelled Dataset (antennas in the scenario's
+    order)."""
+    if hasattr(results, "candidates"):
         ants = [results.reference, *results.candidates]
         return antenna_looks([a.name for a in ants], [a.family for a in ants])
     return antenna_looks(results["antenna"].values, results["family"].values)
