@@ -143,20 +143,31 @@ class _Ahead:
             return
         if stage == "sky" and "sky" in self._names and made.maps:
             early = plots.for_drawing(preview(sc, skies=made))  # the sky at the figure's moment only
-            self._hand(plots.noise_sky, early, {})
+            self._hand(early, [(plots.noise_sky, {})])
         elif stage == "cuts":
             early = preview(sc, cuts=made)
-            for name, fn in (("azimuth", plots.azimuth_pattern), ("elevation", plots.elevation_pattern)):
-                if name in self._names:
-                    for i in range(len(sc.targets)):
-                        self._hand(fn, early, {"target_index": i})
+            self._hand(
+                early,
+                [
+                    (fn, {"target_index": i})
+                    for name, fn in (("azimuth", plots.azimuth_pattern), ("elevation", plots.elevation_pattern))
+                    if name in self._names
+                    for i in range(len(sc.targets))
+                ],
+            )
 
-    def _hand(self, fn, early, keywords: dict) -> None:
+    def _hand(self, early, figures) -> None:
+        """Hand the figures' process ``figures`` ((figure function, keywords) each) drawn from ``early``, in one
+        message."""
         from functools import partial
 
-        key = f"{fn.__name__}-{len(self._sent)}"
-        self._sent[(fn, tuple(sorted(keywords.items())))] = (key, early)
-        self._drawer.ahead(key, (partial(fn, early, **keywords), self._fmt, self._savefig))
+        pairs = []
+        for fn, keywords in figures:
+            key = f"{fn.__name__}-{len(self._sent)}"
+            self._sent[(fn, tuple(sorted(keywords.items())))] = (key, early)
+            pairs.append((key, (partial(fn, early, **keywords), self._fmt, self._savefig)))
+        if pairs:
+            self._drawer.ahead(*pairs[0], *pairs[1:])
 
     def matching(self, jobs, results) -> dict[int, str]:
         """Job index -> the key of the figure handed ahead for it (:meth:`snrgain.outputs.drawing.Drawer.draw`'s

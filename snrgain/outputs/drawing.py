@@ -31,6 +31,7 @@ import multiprocessing
 import os
 import pickle
 from collections.abc import Callable, Iterator, Sequence
+from functools import partial
 
 from snrgain.processes import worker_start, workers
 
@@ -594,6 +595,8 @@ class Drawer:
     def __init__(self, fmt: str = "png", *, modules: Sequence[str] = ()):
         self._proc = None
         self._conn = None
+        self._outbox = None  # what is to be sent, in order, by the sending thread (:meth:`_post`)
+        self._sender = None
         if workers(2) < 2:
             return
         ctx = multiprocessing.get_context("fork")
@@ -616,10 +619,14 @@ class Drawer:
         proc, self._proc = self._proc, None
         if proc is None:
             return
-        self._conn.close()
+        if self._outbox is not None:
+            self._outbox.put(None)  # the sending thread ends (at once where it waits, else when the helper is gone)
         if proc.is_alive():
             proc.terminate()
         proc.join()
+        if self._sender is not None:
+            self._sender.join(timeout=5.0)
+        self._conn.close()
 
     @property
     def active(self) -> bool:
@@ -627,11 +634,12 @@ class Drawer:
         drawn in this process."""
         return self._proc is not None
 
-    def ahead(self, key: str, job: tuple[Callable, str, dict]) -> None:
-        """Hand the helper one job to draw before the results, after those handed before it (nothing where there is
-        no helper, or where the job cannot be pickled: :meth:`draw` then draws it with the others).  What is not
-        drawn when the jobs come is drawn with them, side by side."""
-        self._send(("ahead", key, job))
+    def ahead(self, key: str, job: tuple[Callable, str, dict], *more: tuple[str, tuple[Callable, str, dict]]) -> None:
+        """Hand the helper a job to draw before the results, under ``key``, and ``more`` (key, job) pairs after it,
+        all in one message (what they share, such as the results' preview, pickled once): drawn after those handed
+        before, in order.  Nothing where there is no helper, or where the jobs cannot be pickled (:meth:`draw` then
+        draws them with the others).  What is not drawn when the jobs come is drawn with them, side by side."""
+        self._send(("ahead", [(key, job), *more]))
 
     def prepare(self, fn: Callable, *args) -> None:
         """Have the helper call ``fn(*args)`` once it is ready, before the results (to make what every figure of the
@@ -650,10 +658,22 @@ class Drawer:
             payload = pickle.dumps(message, protocol=pickle.HIGHEST_PROTOCOL)
         except (pickle.PicklingError, TypeError, AttributeError):
             return
-        try:
-            self._conn.send_bytes(payload)
-        except (BrokenPipeError, ConnectionResetError, OSError):  # the helper died: draw() finds it so
-            pass
+        self._post(payload)
+
+    def _post(self, payload: bytes) -> None:
+        """Have ``payload`` sent to the helper, after what was posted before, by a thread of this process: the
+        helper reads a message only between two pieces of its work (a figure, a step), and a message larger than
+        the pipe holds (a sky, a few patterns' cuts) would otherwise hold this process' evaluation up until then."""
+        if self._sender is None:
+            import queue
+            import threading
+
+            self._outbox = queue.SimpleQueue()
+            self._sender = threading.Thread(
+                target=_send_all, args=(self._conn, self._outbox), name="snrgain-figures-send", daemon=True
+            )
+            self._sender.start()
+        self._outbox.put(payload)
 
     def draw(
         self,
@@ -675,7 +695,7 @@ class Drawer:
             self.close()
             return draw_all(jobs, done=done, cost=cost)
         try:
-            self._conn.send_bytes(payload)
+            self._post(payload)  # after every message posted before it
             while True:
                 kind, value = self._conn.recv()
                 if kind == "done":
@@ -689,6 +709,24 @@ class Drawer:
         except (EOFError, BrokenPipeError, ConnectionResetError):  # the helper died (killed, out of memory)
             self.close()
             return draw_all(jobs, done=done, cost=cost)
+
+
+def _made(early: Callable, make: Callable):
+    """The figure ``early()`` makes (one handed ahead), else, where that fails, the one ``make()`` makes."""
+    try:
+        return early()
+    except Exception:
+        return make()
+
+
+def _send_all(conn, outbox) -> None:
+    """The sending thread of :class:`Drawer`: each payload of ``outbox`` sent in turn, until None comes or the
+    helper is gone (its end of the pipe closed: :meth:`Drawer.draw` finds that when it reads)."""
+    while (payload := outbox.get()) is not None:
+        try:
+            conn.send_bytes(payload)
+        except (BrokenPipeError, ConnectionResetError, OSError):
+            return
 
 
 def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
@@ -724,7 +762,7 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
                     except Exception:  # only time lost: the figures make their own
                         pass
                 elif got[0] == "ahead":
-                    queued.append(got[1:])
+                    queued.extend(got[1])
                 else:  # the jobs: what was handed ahead and is not drawn yet is drawn with them
                     message = got
                     break
@@ -755,8 +793,13 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
         rest = [k for k in range(len(jobs)) if k not in ready]
         for _ in ready:
             conn.send(("done", None))
+        # Handed ahead and not drawn yet: made now in place of the job named for it (that one where it fails)
+        waiting = {key: make for key, (make, _, _) in queued}
         drawn = draw_all(
-            [jobs[k] for k in rest],
+            [
+                (partial(_made, waiting[ahead[k]], jobs[k][0]), *jobs[k][1:]) if ahead.get(k) in waiting else jobs[k]
+                for k in rest
+            ],
             done=lambda: conn.send(("done", None)),
             cost=None if cost is None else [cost[k] for k in rest],
         )
