@@ -82,19 +82,24 @@ def minimal_text():
 
 @pytest.fixture(autouse=True, scope="session")
 def _private_sky_cache(tmp_path_factory):
-    """The persistent sky cache (noisemodels.skycache) in a folder of the test session's own, never the user's;
-    commands run in subprocesses inherit it through the environment."""
+    """The persistent sky cache (noisemodels.skycache) in a folder of the test session's own, never the user's, and
+    the figures not kept; commands run in subprocesses inherit both through the environment."""
     import os
 
     from noisemodels import skycache
+    from snrgain.outputs.drawing import ENV_NO_FIGURES
 
-    old = os.environ.get(skycache.ENV_DIR)
+    # The command line's figures are not kept between tests (snrgain.outputs.drawing.job_bytes): a test that
+    # changes how a figure is drawn must see it drawn.  tests/test_figure_cache.py turns them on where it tests them.
+    old = {k: os.environ.get(k) for k in (skycache.ENV_DIR, ENV_NO_FIGURES)}
     os.environ[skycache.ENV_DIR] = str(tmp_path_factory.mktemp("sky-cache"))
+    os.environ[ENV_NO_FIGURES] = "1"
     yield
-    if old is None:
-        os.environ.pop(skycache.ENV_DIR, None)
-    else:
-        os.environ[skycache.ENV_DIR] = old
+    for k, v in old.items():
+        if v is None:
+            os.environ.pop(k, None)
+        else:
+            os.environ[k] = v
 
 
 def json_numbers(text: str, *, strings: bool = False) -> list:

@@ -48,7 +48,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
 
     check_output(output, overwrite=overwrite)
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
-    with Drawer("svg", modules=_RESULT_MODULES) as drawer:
+    with Drawer("svg", modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
             ahead = _plan_ahead(drawer, plan, "svg", rep.SVG_OPTIONS, sc)
@@ -252,7 +252,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
         raise missing_folder(d)
     names = list(only) or list(plots.FIGURES)
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
-    with Drawer(fmt, modules=_RESULT_MODULES) as drawer:
+    with Drawer(fmt, modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"figures: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
             ahead = _plan_ahead(drawer, plan if "plan" in names else None, fmt, plots.SAVE_OPTIONS, sc)

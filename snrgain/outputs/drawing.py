@@ -480,8 +480,123 @@ def _drawing_worker_start(parent: int) -> None:
 
 
 def _run(index: int) -> bytes:
-    make, fmt, savefig = _JOBS[index]
-    return figure_bytes(make(), fmt, **savefig)
+    return job_bytes(_JOBS[index], keep=_KEEP)
+
+
+_KEEP = False
+"""Whether the current drawing keeps its figures (:func:`job_bytes`), read by forked workers."""
+
+FIGURES_KIND = "figure"
+"""The kind of the persistent cache's figure entries (noisemodels.skycache)."""
+
+ENV_NO_FIGURES = "SNRGAIN_NO_FIGURE_CACHE"
+"""Set to anything but "" or "0": every figure drawn afresh, none kept (the sky's cache stays; SNRGAIN_NO_CACHE
+turns off both)."""
+
+FIGURES_VERSION = 1
+"""Part of every figure entry's key: bumped when what a figure's bytes depend on changes beyond the code digested."""
+
+_CODE: list[str] = []  # the digest of the packages' sources as found (once a process)
+
+
+def job_bytes(job: tuple[Callable, str, dict], *, keep: bool = False) -> bytes:
+    """The bytes of one job (a function that makes the figure, "png" or "svg", savefig's keywords).
+
+    With ``keep`` (the command line's figures) the bytes are kept in the persistent cache (noisemodels.skycache,
+    with its opt-out, size bound and safe writes) and read back when a later run draws the same figure from the
+    same data: a job made as ``partial(figure function, data, **keywords)``, keyed by the function, a digest of
+    the data and the keywords as pickled, the format and savefig's keywords, matplotlib's version and settings in
+    force, the font they find, and a digest of this package's figure code (:func:`_figure_key`).  An edit-and-run
+    loop that leaves what a figure shows alone does not draw it again."""
+    make, fmt, savefig = job
+    key = _figure_key(job) if keep else None
+    if key is not None:
+        from noisemodels import skycache
+
+        kept = skycache.load(FIGURES_KIND, key)
+        if kept is not None and kept.dtype == "uint8" and kept.ndim == 1:
+            return kept.tobytes()
+    data = figure_bytes(make(), fmt, **savefig)
+    if key is not None:
+        import numpy as np
+
+        skycache.store(FIGURES_KIND, key, np.frombuffer(data, dtype=np.uint8))
+    return data
+
+
+_DIGESTS: dict[int, tuple[object, str]] = {}  # id(data) -> (data, digest): the data a drawing's jobs share, once
+
+
+def _figure_key(job) -> dict | None:
+    """The persistent cache's key of a job (:func:`job_bytes`), or None where the job is not a figure function's
+    partial of one argument, the cache is off, or its data do not pickle."""
+    from noisemodels import skycache
+
+    make, fmt, savefig = job
+    if isinstance(make, partial) and make.func is _made:  # a figure handed ahead, made in place of its job: its own
+        make = make.args[0]
+    off = os.environ.get(ENV_NO_FIGURES, "") not in ("", "0")
+    if off or not skycache.enabled() or not isinstance(make, partial) or len(make.args) != 1:
+        return None
+    fn = make.func
+    try:
+        data = make.args[0]
+        known = _DIGESTS.get(id(data))
+        if known is None or known[0] is not data:
+            if len(_DIGESTS) > 16:
+                _DIGESTS.clear()
+            known = _DIGESTS[id(data)] = (data, _digest(data))
+        return {
+            "version": FIGURES_VERSION,
+            "figure": f"{fn.__module__}.{fn.__qualname__}",
+            "data": known[1],
+            "keywords": _digest(sorted(make.keywords.items())),
+            "format": fmt,
+            "savefig": _digest(sorted(savefig.items())),
+            "drawing": _drawing_digest(),
+        }
+    except Exception:  # (pickling) a figure that is not kept is only drawn
+        return None
+
+
+def _digest(value) -> str:
+    import hashlib
+
+    return hashlib.sha256(pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL)).hexdigest()
+
+
+def _drawing_digest() -> str:
+    """A digest of what a figure's bytes depend on besides its job: matplotlib's version and settings in force (the
+    user's own, with :data:`DRAWING_RC`), the font file they find, and the code (:func:`_code_digest`)."""
+    import hashlib
+
+    import matplotlib as mpl
+    from matplotlib import font_manager
+
+    settings = repr(sorted((k, repr(v)) for k, v in mpl.rcParams.items()))
+    font = font_manager.findfont(font_manager.FontProperties())
+    return hashlib.sha256(f"{mpl.__version__}|{settings}|{font}|{_code_digest()}".encode()).hexdigest()
+
+
+def _code_digest() -> str:
+    """A digest of every source file of snrgain and noisemodels as found (name, size, time of the last change): a
+    figure reads the results through more code than its own (the labelled results, the sphere's interpolation), so
+    any change to the packages is a miss.  Once a process."""
+    if not _CODE:
+        import hashlib
+        from pathlib import Path
+
+        import noisemodels
+        import snrgain
+
+        h = hashlib.sha256()
+        for package in (snrgain, noisemodels):
+            root = Path(package.__file__).parent
+            for f in sorted(root.rglob("*.py")):
+                st = f.stat()
+                h.update(f"{f.relative_to(root.parent)}|{st.st_size}|{st.st_mtime_ns}\n".encode())
+        _CODE.append(h.hexdigest())
+    return _CODE[0]
 
 
 def draw_all(
@@ -489,24 +604,26 @@ def draw_all(
     *,
     done: Callable[[], None] | None = None,
     cost: Sequence[float] | None = None,
+    keep: bool = False,
 ) -> list[bytes]:
     """The bytes of each job, in order: a job is (a function that makes the figure, "png" or "svg", savefig's
     keywords).  ``done()`` is called as each figure is finished.  ``cost``: each job's rough relative drawing time;
-    the costliest are drawn first.
+    the costliest are drawn first.  ``keep``: the figures kept in, and read back from, the persistent cache
+    (:func:`job_bytes`).
 
     With more than one process to draw with (:func:`workers`), this process draws too: it forks one worker fewer
     and takes the next job from the same list as they do (a thread of it hands each worker its next job as the
     last comes back), so every process keeps drawing until the list is empty and they finish together; this one
     keeps what it has loaded (fonts, measured texts), which a forked worker loads again."""
-    global _JOBS
+    global _JOBS, _KEEP
     from snrgain.errors import stop_if_asked
 
     n = workers(len(jobs))
     out: list[bytes] = []
     if n <= 1:
         with drawing_settings():
-            for make, fmt, savefig in jobs:
-                out.append(figure_bytes(make(), fmt, **savefig))
+            for job in jobs:
+                out.append(job_bytes(job, keep=keep))
                 if done:
                     done()
                 stop_if_asked()
@@ -540,7 +657,7 @@ def draw_all(
             with lock:
                 failed.append(exc)
 
-    _JOBS = jobs
+    _JOBS, _KEEP = jobs, keep
     pool = ProcessPoolExecutor(
         max_workers=n - 1,
         mp_context=multiprocessing.get_context("fork"),
@@ -555,8 +672,7 @@ def draw_all(
             t.start()
         with drawing_settings():
             while (k := take()) is not None:
-                make, fmt, savefig = jobs[k]
-                finished(k, figure_bytes(make(), fmt, **savefig))
+                finished(k, job_bytes(jobs[k], keep=keep))
                 stop_if_asked()  # Ctrl-C: the figures not started are dropped (below), the command stops cleanly
         for t in feeders:
             while t.is_alive():
@@ -569,7 +685,7 @@ def draw_all(
         with lock:
             pending.clear()
         pool.shutdown(wait=True, cancel_futures=True)
-        _JOBS = ()
+        _JOBS, _KEEP = (), False
 
 
 class Drawer:
@@ -592,7 +708,8 @@ class Drawer:
     named so (``ahead={index: key}``), which is drawn as any other where the early one is missing or failed.
     """
 
-    def __init__(self, fmt: str = "png", *, modules: Sequence[str] = ()):
+    def __init__(self, fmt: str = "png", *, modules: Sequence[str] = (), keep: bool = False):
+        self._keep = keep  # the figures kept in the persistent cache and read back from it (job_bytes)
         self._proc = None
         self._conn = None
         self._outbox = None  # what is to be sent, in order, by the sending thread (:meth:`_post`)
@@ -603,7 +720,7 @@ class Drawer:
         self._conn, child = ctx.Pipe()
         # Not a daemon: its own workers are its children, which multiprocessing refuses a daemon.
         self._proc = ctx.Process(
-            target=_helper, args=(child, os.getpid(), fmt, tuple(modules)), name="snrgain-figures", daemon=False
+            target=_helper, args=(child, os.getpid(), fmt, tuple(modules), keep), name="snrgain-figures", daemon=False
         )
         self._proc.start()
         child.close()
@@ -688,12 +805,12 @@ class Drawer:
         from snrgain.errors import stop_if_asked
 
         if self._proc is None:
-            return draw_all(jobs, done=done, cost=cost)
+            return draw_all(jobs, done=done, cost=cost, keep=self._keep)
         try:
             payload = pickle.dumps(("jobs", list(jobs), cost, dict(ahead or {})), protocol=pickle.HIGHEST_PROTOCOL)
         except (pickle.PicklingError, TypeError, AttributeError):  # e.g. a figure function made in a notebook
             self.close()
-            return draw_all(jobs, done=done, cost=cost)
+            return draw_all(jobs, done=done, cost=cost, keep=self._keep)
         try:
             self._post(payload)  # after every message posted before it
             while True:
@@ -708,7 +825,7 @@ class Drawer:
                     raise value
         except (EOFError, BrokenPipeError, ConnectionResetError):  # the helper died (killed, out of memory)
             self.close()
-            return draw_all(jobs, done=done, cost=cost)
+            return draw_all(jobs, done=done, cost=cost, keep=self._keep)
 
 
 def _made(early: Callable, make: Callable):
@@ -729,7 +846,7 @@ def _send_all(conn, outbox) -> None:
             return
 
 
-def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
+def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...], keep: bool = False) -> None:
     """The helper process of :class:`Drawer`: warm up, draw what is handed ahead as it comes, wait for the jobs,
     draw them (those drawn ahead taken as they are), send the bytes back."""
     import gc
@@ -771,9 +888,9 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
         if message is not None:
             break
         if queued:  # a figure handed ahead (the first warms up too)
-            key, (make, kind, savefig) = queued.pop(0)
+            key, job = queued.pop(0)
             try:
-                early[key] = figure_bytes(make(), kind, **savefig)
+                early[key] = job_bytes(job, keep=keep)
                 warm = True
             except Exception:  # drawn again with the others, where its error is the command's
                 pass
@@ -802,6 +919,7 @@ def _helper(conn, parent: int, fmt: str, modules: tuple[str, ...]) -> None:
             ],
             done=lambda: conn.send(("done", None)),
             cost=None if cost is None else [cost[k] for k in rest],
+            keep=keep,
         )
         ready.update(zip(rest, drawn))
         out = [ready[k] for k in range(len(jobs))]
