@@ -506,8 +506,8 @@ def job_bytes(job: tuple[Callable, str, dict], *, keep: bool = False) -> bytes:
     with its opt-out, size bound and safe writes) and read back when a later run draws the same figure from the
     same data: a job made as ``partial(figure function, data, **keywords)``, keyed by the function, a digest of
     the data and the keywords as pickled, the format and savefig's keywords, matplotlib's version and settings in
-    force, the font they find, and a digest of this package's figure code (:func:`_figure_key`).  An edit-and-run
-    loop that leaves what a figure shows alone does not draw it again."""
+    force, the font they find, and a digest of the packages' sources (:func:`_figure_key`).  An edit-and-run loop
+    that leaves what a figure shows alone does not draw it again."""
     make, fmt, savefig = job
     key = _figure_key(job) if keep else None
     if key is not None:
