@@ -210,6 +210,19 @@ def test_measured_constants_round_trip():
     assert again.attenuation_db_per_100ft == pytest.approx(3.0 * 0.3048)
 
 
+def test_series_shunt_roots_take_the_positive_real_part():
+    # from_series_shunt takes cmath's principal roots (Re >= 0) for gamma and Z0: the same numbers numpy's roots
+    # with the sign flipped to Re >= 0 give, for Z' and Y' in every quadrant and on the axes.
+    for z in (3 + 40j, -3 + 40j, 3 - 40j, -3 - 40j, 5.0, -5.0, 40j, -40j):
+        for y in (1e-6 + 2e-4j, -1e-6 + 2e-4j, 2e-4j, -2e-4j, 1e-5):
+            ln = lines.from_series_shunt(1.83e6, z, y)
+            for got, square in ((ln.gamma, z * y), (ln.z0, z / y)):
+                want = np.sqrt(complex(square))
+                want = -want if want.real < 0 else want
+                assert type(got) is complex and got.real >= 0
+                assert abs(got - want) <= 1e-15 * abs(want)
+
+
 def test_awg_diameters():
     # ASTM B258 / the AWG table: AWG 14 = 1.628 mm, AWG 10 = 2.588 mm, AWG 18 = 1.024 mm.
     assert lines.awg_diameter_m(14) * 1e3 == pytest.approx(1.628, abs=0.002)

@@ -55,6 +55,8 @@ Users can override velocity factor, attenuation and Z0 with measured values
 
 from __future__ import annotations
 
+import cmath
+import math
 from functools import lru_cache
 from pathlib import Path
 
@@ -119,14 +121,12 @@ class LineConstants:
 
 
 def from_series_shunt(freq_hz: float, z_series: complex, y_shunt: complex) -> LineConstants:
-    """gamma = sqrt(Z'Y') (Re >= 0) and Z0 = sqrt(Z'/Y') (Re >= 0)."""
-    gamma = np.sqrt(z_series * y_shunt + 0j)
-    if gamma.real < 0:
-        gamma = -gamma
-    z0 = np.sqrt(z_series / y_shunt + 0j)
-    if z0.real < 0:
-        z0 = -z0
-    return LineConstants(float(freq_hz), complex(z_series), complex(y_shunt), complex(gamma), complex(z0))
+    """gamma = sqrt(Z'Y') (Re >= 0) and Z0 = sqrt(Z'/Y') (Re >= 0); scalars, by cmath (whose principal root has
+    Re >= 0 already)."""
+    z_series, y_shunt = complex(z_series), complex(y_shunt)
+    return LineConstants(
+        float(freq_hz), z_series, y_shunt, cmath.sqrt(z_series * y_shunt), cmath.sqrt(z_series / y_shunt)
+    )
 
 
 def measured_constants(
@@ -148,8 +148,8 @@ def penetration_depth(freq_hz, ground: Ground | None) -> complex:
     """Complex penetration depth p = 1 / sqrt(j omega mu0 (sigma + j omega eps0 eps_r)) [m]; 0 for perfect ground."""
     if ground is None:
         return 0j
-    omega = 2 * np.pi * freq_hz
-    return 1.0 / np.sqrt(
+    omega = 2 * math.pi * freq_hz
+    return 1.0 / cmath.sqrt(
         1j * omega * MU0_H_PER_M * (ground.conductivity_s_per_m + 1j * omega * EPS0_F_PER_M * ground.permittivity)
     )
 
@@ -162,21 +162,21 @@ def wire_internal_impedance(freq_hz, radius_m, conductivity_s_per_m=COPPER_S_PER
 
 @lru_cache(maxsize=256)
 def _internal_impedance(freq_hz: float, radius_m: float, conductivity_s_per_m: float) -> complex:
-    omega = 2 * np.pi * freq_hz
-    delta = np.sqrt(2.0 / (omega * MU0_H_PER_M * conductivity_s_per_m))
+    omega = 2 * math.pi * freq_hz
+    delta = math.sqrt(2.0 / (omega * MU0_H_PER_M * conductivity_s_per_m))
     k = (1 - 1j) / delta
     ka = k * radius_m
     from snrgain.physics.bessel import j0_over_j1
 
     ratio = j0_over_j1(ka)
-    return complex(k / (2 * np.pi * radius_m * conductivity_s_per_m) * ratio)
+    return complex(k / (2 * math.pi * radius_m * conductivity_s_per_m) * ratio)
 
 
 def ground_return_term(freq_hz, *, height_m, radius_m, ground: Ground | None) -> complex:
     """j omega mu0 / (2 pi) ln(2 (h + p) / a): external inductance plus ground return [ohm/m] (Deri et al. 1981)."""
-    omega = 2 * np.pi * freq_hz
+    omega = 2 * math.pi * freq_hz
     p = penetration_depth(freq_hz, ground)
-    return complex(1j * omega * MU0_H_PER_M / (2 * np.pi) * np.log(2 * (height_m + p) / radius_m))
+    return 1j * omega * MU0_H_PER_M / (2 * math.pi) * cmath.log(2 * (height_m + p) / radius_m)
 
 
 LINE_MODELS = ("exact", "closed-form")
@@ -200,8 +200,8 @@ def overhead_wire(
         raise ValueError(f"line model must be one of {LINE_MODELS}; got {model!r}")
     z_int = wire_internal_impedance(freq_hz, radius_m, wire_conductivity_s_per_m)
     z = z_int + ground_return_term(freq_hz, height_m=height_m, radius_m=radius_m, ground=ground)
-    omega = 2 * np.pi * freq_hz
-    y = 1j * omega * 2 * np.pi * EPS0_F_PER_M / np.arccosh(height_m / radius_m)
+    omega = 2 * math.pi * freq_hz
+    y = 1j * omega * 2 * math.pi * EPS0_F_PER_M / math.acosh(height_m / radius_m)
     closed = from_series_shunt(freq_hz, z, y)
     if model == "closed-form" or ground is None:
         return closed
