@@ -40,7 +40,9 @@ from snrgain.cli.options import (
 def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, band):
     """Write one self-contained HTML report for SCENARIO: summary, ranking, figures, models, safety.
 
-    The file has no scripts and loads nothing from the network; it prints cleanly.
+    The file has no scripts and loads nothing from the network; it prints cleanly.  Each figure is kept in the
+    cache folder and reused by a later run while what it shows is unchanged (SNRGAIN_NO_FIGURE_CACHE=1 draws
+    every figure afresh).
     """
     from snrgain.outputs import plots
     from snrgain.outputs import report as rep
@@ -242,7 +244,11 @@ def _same_looks(results, plan) -> bool:
 @band_option
 @handle_errors
 def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir, reference, band):
-    """Write the figures for SCENARIO as PNG or SVG files into --dir."""
+    """Write the figures for SCENARIO as PNG or SVG files into --dir.
+
+    Each figure is kept in the cache folder and reused by a later run while what it shows is unchanged
+    (SNRGAIN_NO_FIGURE_CACHE=1 draws every figure afresh).
+    """
     from snrgain.files import missing_folder
     from snrgain.outputs import plots
     from snrgain.outputs.drawing import Drawer
