@@ -337,3 +337,15 @@ def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp
     pac = best["Beverage Pacific"]
     # (the written file rounds places to 0.1 m and bearings to 0.1 deg)
     assert nominal[("Beverage Pacific", pac["target"])] == pytest.approx(pac["snr_gain_db"], abs=0.01)
+
+
+def test_the_combinations_worths_at_once_equal_each_layouts():
+    from snrgain.tools.layout import Design, Layout, _worths_db
+
+    rng = np.random.default_rng(3)
+    d = Design("a", 0.0, 0.0, None, None)
+    for n in (1, 2, 3):
+        per = [[(float(x), d) for x in rng.normal(10.0, 3.0, 7)] for _ in range(n)]
+        combos = [tuple(int(k) for k in rng.integers(0, 7, n)) for _ in range(50)]
+        want = [Layout((), tuple(per[i][j][0] for i, j in enumerate(ix)), ()).worth_db for ix in combos]
+        assert list(_worths_db(per, combos)) == want  # to the bit: the ranking's order and ties as before

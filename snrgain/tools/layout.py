@@ -568,10 +568,8 @@ class Problem:
         # Every combination of the kept designs, best total first, until enough keep clear of one another.
         import itertools
 
-        ranked = sorted(
-            itertools.product(*[range(len(p)) for p in per]),
-            key=lambda ix: -Layout((), tuple(per[i][j][0] for i, j in enumerate(ix)), ()).worth_db,
-        )
+        combos = list(itertools.product(*[range(len(p)) for p in per]))
+        ranked = [combos[k] for k in np.argsort(-_worths_db(per, combos), kind="stable")]
         chosen = []
         for ix in ranked:
             designs = [per[i][j][1] for i, j in enumerate(ix)]
@@ -807,6 +805,13 @@ def _statistic(sc, g: np.ndarray, t: int) -> np.ndarray:
 
     v = g[:, t][:, target_masks(sc)[t]]  # (antennas, the target's month-hours)
     return median(v, axis=1) if sc.uncertainty.hours else np.mean(v, axis=1)
+
+
+def _worths_db(per: list[list[tuple[float, Design]]], combos: list[tuple[int, ...]]) -> np.ndarray:
+    """:attr:`Layout.worth_db` of each combination (one index into each candidate's (score, design) list), all at
+    once in the same arithmetic (row by row)."""
+    g = np.array([[per[i][j][0] for i, j in enumerate(ix)] for ix in combos], dtype=float).reshape(len(combos), -1)
+    return 10 * np.log10(np.mean(10 ** (g / 10), axis=1))
 
 
 def _member(antenna) -> str:
