@@ -421,18 +421,22 @@ class Problem:
         return ~np.any(np.array([v > 0 for _, v in columns]), axis=0)
 
     def violation_columns(
-        self, designs: list[Design], others=(), *, flags: bool = False
+        self, designs: list[Design], others=(), *, flags: bool = False, wires=None
     ) -> list[tuple[str, np.ndarray]]:
         """(rule, how far each design breaks it [m]) of :meth:`violations_many`, rule by rule; ``flags``: only
         whether each breaks it counts (a footprint the lot does not cover has a part of some length outside it: 1
-        stands for that length, not worked out)."""
+        stands for that length, not worked out).  ``wires``: (name, east, north, bearing, length) arrays of one
+        candidate's wires in place of ``designs`` (the grid's, none of them made into a Design yet)."""
         import shapely
 
-        if designs and all(d.length_m is not None for d in designs):  # wires: their footprints made at once
-            e = np.array([d.east_m for d in designs])
-            n = np.array([d.north_m for d in designs])
-            b = np.array([d.bearing_rad for d in designs])
-            ln = np.array([d.length_m for d in designs])
+        if wires is not None or (designs and all(d.length_m is not None for d in designs)):
+            if wires is None:  # wires: their footprints made at once
+                e = np.array([d.east_m for d in designs])
+                n = np.array([d.north_m for d in designs])
+                b = np.array([d.bearing_rad for d in designs])
+                ln = np.array([d.length_m for d in designs])
+            else:
+                _, e, n, b, ln = wires
             ends = np.stack([np.stack([e, n], axis=1), np.stack([e + ln * np.sin(b), n + ln * np.cos(b)], axis=1)], 1)
             shapes = shapely.linestrings(ends)
         else:
@@ -460,9 +464,8 @@ class Problem:
                 inside[hit] = np.where(line[hit], shapely.length(inter), np.where(shapely.is_empty(inter), 0.0, 1.0))
             columns.append((f"keep-out area {name!r}", inside))
         if self.tx is not None:
-            applies = np.array(
-                [self.clearance_given or not self.cost_computed[self.names.index(d.name)] for d in designs]
-            )
+            named = [wires[0]] * len(shapes) if wires is not None else [d.name for d in designs]
+            applies = np.array([self.clearance_given or not self.cost_computed[self.names.index(m)] for m in named])
             short = np.maximum(0.0, self.clearance - shapely.distance(shapes, self.tx))
             columns.append(
                 (
@@ -502,13 +505,18 @@ class Problem:
         """Candidate i's designs on the grid that keep every rule, from geometry alone (no SNR worked out); a
         ValueError naming the rules that bind, most binding first, when there is none."""
         pairs, points = self.grid_designs(i)
-        designs = [Design(self.names[i], e, n, b, ln, self.state_names[i]) for b, ln in pairs for e, n in points]
-        columns = self.violation_columns(designs, flags=True)
+        designs = [(e, n, b, ln) for b, ln in pairs for e, n in points]  # made into Designs where they keep the rules
+        if all(ln is not None for _, ln in pairs):  # wires: the rules worked from arrays, no Design made first
+            arrays = [np.array(c, dtype=float) for c in zip(*designs)]
+            columns = self.violation_columns([], flags=True, wires=(self.names[i], *arrays))
+        else:
+            made = [Design(self.names[i], *d, self.state_names[i]) for d in designs]
+            columns = self.violation_columns(made, flags=True)
         broken: dict[str, np.ndarray] = {}  # by rule (a name given twice: broken where either column is)
         for rule, v in columns:
             broken[rule] = broken.get(rule, np.zeros(len(designs), dtype=bool)) | (v > 0)
         ok = ~np.any(np.array(list(broken.values())), axis=0) if broken else np.ones(len(designs), dtype=bool)
-        found = [d for d, keep in zip(designs, ok) if keep]
+        found = [Design(self.names[i], *d, self.state_names[i]) for d, keep in zip(designs, ok) if keep]
         if not found:
             blocked = {rule: int(np.count_nonzero(b)) for rule, b in broken.items() if b.any()}
             ranked = sorted(blocked.items(), key=lambda kv: -kv[1])
