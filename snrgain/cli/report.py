@@ -53,8 +53,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     with Drawer("svg", modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
-            ahead = _plan_ahead(drawer, plan, "svg", rep.SVG_OPTIONS, sc)
-            early = _Ahead(drawer, "svg", rep.SVG_OPTIONS, plots.DRAWN_AHEAD)
+            early = _Ahead(drawer, "svg", rep.SVG_OPTIONS, plots.FIGURES, sc, plan)
             results = _evaluated(sc, allow_long, observe=early)
         for w in results.warnings:
             click.echo(f"warning: {w}", err=True)
@@ -63,11 +62,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
 
         def draw(jobs, **kw):
             jobs = [(_on(make, results, light), fmt, opts) for make, fmt, opts in jobs]
-            plans = [k for k, (make, _, _) in enumerate(jobs) if getattr(make, "func", None) is plots.site_plan]
-            drawn_ahead = early.matching(jobs, results)
-            if ahead and _same_looks(results, plan):
-                drawn_ahead.update({k: ahead for k in plans})
-            return drawer.draw(jobs, ahead=drawn_ahead, **kw)
+            return drawer.draw(jobs, ahead=early.drawn(jobs, results), **kw)
 
         with progress(None, "report: drawing the figures"):
             html = rep.render(results, plan=plan, draw=draw)
@@ -122,20 +117,23 @@ def _evaluated(sc, allow_long, observe=None):
 
 
 class _Ahead:
-    """Hands the figures' process (``drawer``, :class:`snrgain.outputs.drawing.Drawer`) the figures that can be drawn
-    before the results, as the pipeline makes what they need (:func:`snrgain.model.pipeline.evaluate`'s
-    ``observe``): the noise sky once the sky is built, each target's azimuth and elevation patterns once the antennas
-    are steered, each from a Preview of the results (:func:`snrgain.decide.decisions.preview`).  The figures' process
-    draws them while this one goes on evaluating.  :meth:`matching` then names the jobs whose figure was handed
-    ahead from what the results show too (:func:`snrgain.outputs.plots.drawn_alike`); any other is drawn from the
-    results."""
+    """Hands the figures' process (``drawer``, :class:`snrgain.outputs.drawing.Drawer`) the work that can be done
+    before the results: made now, the figures' empty axes and the site plan (:func:`_plan_ahead`, from the scenario's
+    ``plan``); as the pipeline makes what they need (:func:`snrgain.model.pipeline.evaluate`'s ``observe``), the
+    noise sky once the sky is built and each target's azimuth and elevation patterns once the antennas are steered,
+    each from a Preview of the results (:func:`snrgain.decide.decisions.preview`).  The figures' process draws them
+    while this one goes on evaluating.  :meth:`drawn` then names the jobs whose figure was handed ahead from what
+    the results show too (:func:`snrgain.outputs.plots.drawn_alike`, :func:`_same_looks` for the plan); any other is
+    drawn from the results.  ``names``: the figures asked for (short names, :data:`snrgain.outputs.plots.FIGURES`)."""
 
-    def __init__(self, drawer, fmt: str, savefig: dict, names):
+    def __init__(self, drawer, fmt: str, savefig: dict, names, sc, plan):
         self._drawer = drawer
         self._fmt = fmt
         self._savefig = savefig
         self._names = set(names)
         self._sent: dict = {}  # (figure function, its keywords) -> (key, the preview it is drawn from)
+        self._plan = plan if "plan" in self._names else None
+        self._plan_key = _plan_ahead(drawer, self._plan, fmt, savefig, sc)
 
     def __call__(self, stage: str, sc, made) -> None:
         from snrgain.decide.decisions import preview
@@ -171,10 +169,26 @@ class _Ahead:
         if pairs:
             self._drawer.ahead(*pairs[0], *pairs[1:])
 
-    def matching(self, jobs, results) -> dict[int, str]:
+    def drawn(self, jobs, results) -> dict[int, str]:
         """Job index -> the key of the figure handed ahead for it (:meth:`snrgain.outputs.drawing.Drawer.draw`'s
-        ``ahead``), for each job that draws a figure handed ahead, in the same format and options, from results
-        that show what its preview showed."""
+        ``ahead``): the sky and the patterns (:meth:`matching`), and the site plan where the results' antennas look as
+        the plan's (:func:`_same_looks`)."""
+        from snrgain.outputs import plots
+
+        out = self.matching(jobs, results)
+        if self._plan_key is not None and _same_looks(results, self._plan):
+            out.update(
+                {
+                    k: self._plan_key
+                    for k, (make, _, _) in enumerate(jobs)
+                    if getattr(make, "func", None) is plots.site_plan
+                }
+            )
+        return out
+
+    def matching(self, jobs, results) -> dict[int, str]:
+        """Job index -> the key of the sky or pattern figure handed ahead for it, for each job that draws one handed
+        ahead from a preview, in the same format and options, from results that show what its preview showed."""
         from snrgain.outputs import plots
 
         out = {}
@@ -261,8 +275,7 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
     with Drawer(fmt, modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"figures: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
-            ahead = _plan_ahead(drawer, plan if "plan" in names else None, fmt, plots.SAVE_OPTIONS, sc)
-            early = _Ahead(drawer, fmt, plots.SAVE_OPTIONS, names)
+            early = _Ahead(drawer, fmt, plots.SAVE_OPTIONS, names, sc, plan)
             results = _evaluated(sc, allow_long, observe=early)
         if "plan" in names and not plots.has_site_plan(results, plan=plan):
             if only:
@@ -289,12 +302,8 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
             def write(tmp_path):
                 if not drawn:  # the first file draws them all, side by side, inside the set's temporary folder
                     figs = [(partial(plots.FIGURES[n], light, **kw), fmt, plots.SAVE_OPTIONS) for _, n, kw in jobs]
-                    drawn_ahead = early.matching(figs, results)
-                    if ahead and _same_looks(results, plan):
-                        drawn_ahead.update({k: ahead for k, (_, n, _) in enumerate(jobs) if n == "plan"})
-                    drawn.extend(
-                        drawer.draw(figs, done=step, cost=[plots.FIGURE_COST[n] for _, n, _ in jobs], ahead=drawn_ahead)
-                    )
+                    cost = [plots.FIGURE_COST[n] for _, n, _ in jobs]
+                    drawn.extend(drawer.draw(figs, done=step, cost=cost, ahead=early.drawn(figs, results)))
                 Path(tmp_path).write_bytes(drawn[k])
 
             return write

@@ -31,8 +31,9 @@ import multiprocessing
 import os
 import pickle
 from collections.abc import Callable, Iterator, Sequence
-from functools import partial
+from functools import lru_cache, partial
 
+from snrgain.memo import Memo
 from snrgain.processes import worker_start, workers
 
 _JOBS: Sequence[tuple[Callable, str, dict]] = ()
@@ -496,8 +497,6 @@ turns off both)."""
 FIGURES_VERSION = 1
 """Part of every figure entry's key: bumped when what a figure's bytes depend on changes beyond the code digested."""
 
-_CODE: list[str] = []  # the digest of the packages' sources as found (once a process)
-
 
 def job_bytes(job: tuple[Callable, str, dict], *, keep: bool = False) -> bytes:
     """The bytes of one job (a function that makes the figure, "png" or "svg", savefig's keywords).
@@ -524,7 +523,8 @@ def job_bytes(job: tuple[Callable, str, dict], *, keep: bool = False) -> bytes:
     return data
 
 
-_DIGESTS: dict[int, tuple[object, str]] = {}  # id(data) -> (data, digest): the data a drawing's jobs share, once
+_DIGESTS = Memo(16)
+"""(data, digest) by id(data): the data a drawing's jobs share (the results), pickled and digested once."""
 
 
 def _figure_key(job) -> dict | None:
@@ -541,11 +541,10 @@ def _figure_key(job) -> dict | None:
     fn = make.func
     try:
         data = make.args[0]
-        known = _DIGESTS.get(id(data))
-        if known is None or known[0] is not data:
-            if len(_DIGESTS) > 16:
-                _DIGESTS.clear()
-            known = _DIGESTS[id(data)] = (data, _digest(data))
+        known = _DIGESTS.get(id(data), lambda: (data, _digest(data)))
+        if known[0] is not data:  # other data at that address since: digested afresh
+            _DIGESTS.clear()
+            known = _DIGESTS.get(id(data), lambda: (data, _digest(data)))
         return {
             "version": FIGURES_VERSION,
             "figure": f"{fn.__module__}.{fn.__qualname__}",
@@ -578,25 +577,20 @@ def _drawing_digest() -> str:
     return hashlib.sha256(f"{mpl.__version__}|{settings}|{font}|{_code_digest()}".encode()).hexdigest()
 
 
+@lru_cache(maxsize=1)
 def _code_digest() -> str:
-    """A digest of every source file of snrgain and noisemodels as found (name, size, time of the last change): a
-    figure reads the results through more code than its own (the labelled results, the sphere's interpolation), so
-    any change to the packages is a miss.  Once a process."""
-    if not _CODE:
-        import hashlib
-        from pathlib import Path
+    """A digest of every source file of snrgain and noisemodels (noisemodels.skycache.code_digest, about 4 ms once a
+    process): a figure reads the results through more code than its own (the labelled results, the sphere's
+    interpolation), so any change to the packages is a miss."""
+    from pathlib import Path
 
-        import noisemodels
-        import snrgain
+    import noisemodels
+    import snrgain
+    from noisemodels import skycache
 
-        h = hashlib.sha256()
-        for package in (snrgain, noisemodels):
-            root = Path(package.__file__).parent
-            for f in sorted(root.rglob("*.py")):
-                st = f.stat()
-                h.update(f"{f.relative_to(root.parent)}|{st.st_size}|{st.st_mtime_ns}\n".encode())
-        _CODE.append(h.hexdigest())
-    return _CODE[0]
+    return skycache.code_digest(
+        *(f for package in (snrgain, noisemodels) for f in sorted(Path(package.__file__).parent.rglob("*.py")))
+    )
 
 
 def draw_all(

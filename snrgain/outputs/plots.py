@@ -124,7 +124,7 @@ def blank_kinds(
     kinds = [({"n": n_targets, "figsize": (8.5, 3.2 * n_targets + 1.0)}, 1)]
     if n_candidates:
         kinds.append((_ranking_kind(n_candidates, n_targets), 1))
-    # Those that need the results first: the figures drawn ahead (snrgain.outputs.plots.DRAWN_AHEAD) may be drawn
+    # Those that need the results first: the figures drawn ahead (the patterns and the sky, drawn_alike) may be drawn
     # before their blanks are made (the command line hands them over as the pipeline makes the sky and the cuts).
     kinds += [({"polar": True, "figsize": (7.5, 7.0)}, n_targets), ({"figsize": (8.0, 4.8)}, n_targets)]
     if n_diffuse is not None:
@@ -1206,16 +1206,13 @@ def for_drawing(results):
     return replace(results, noise=replace(noise, maps={moment: noise.maps[moment]} if moment in noise.maps else {}))
 
 
-DRAWN_AHEAD = ("azimuth", "elevation", "sky")
-"""The figures (by short name, :data:`FIGURES`) that can be drawn from a Preview of the results
-(:func:`snrgain.decide.decisions.preview`): the patterns from the cuts, the noise sky from the sky."""
-
-
 def drawn_alike(early, results) -> bool:
-    """Whether the figures of :data:`DRAWN_AHEAD` drawn from ``early`` (a Preview, or what :func:`for_drawing` made
-    of it) are those ``results`` give: the same site, frequency, months and hours, targets and placed sources, the
-    same antennas (names, families, order), and the same pattern cuts and noise sky at :func:`sky_moment` where the
-    preview has them (the very arrays, or equal ones).  What the figures read of the results, and nothing else."""
+    """Whether the figures that can be drawn from ``early`` (a Preview of the results,
+    :func:`snrgain.decide.decisions.preview`, or what :func:`for_drawing` made of it: the patterns from its cuts,
+    the noise sky from its sky) are those ``results`` give: the same site, frequency, months and hours, targets and
+    placed sources, the same antennas (names, families, order), and the same pattern cuts and noise sky at
+    :func:`sky_moment` where the preview has them (the very arrays, or equal ones).  What the figures read of the
+    results, and nothing else."""
     if (
         early.site != results.site
         or early.freq_hz != results.freq_hz

@@ -474,8 +474,8 @@ class Problem:
                 )
             )
         # the fixed wires, then the other placed wires, as violations() takes them
-        wires = [*zip(self.fixed_names, self.fixed_wires), *((o.name, self.footprint(o)) for o in others)]
-        for name, w in wires:
+        standing = [*zip(self.fixed_names, self.fixed_wires), *((o.name, self.footprint(o)) for o in others)]
+        for name, w in standing:
             if w.length > 0:
                 near = np.where(
                     shapely.intersects(shapes, w),
