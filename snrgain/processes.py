@@ -55,9 +55,11 @@ def worker_start(parent: int) -> None:
 
 def spare_core() -> bool:
     """Whether a forked process would run beside this one: two cores or more for it (fork available,
-    :func:`workers`, $SNRGAIN_WORKERS) and a load average (the last minute's, this process in it) at least half a
-    core short of the cores; on a machine already busy a second process only adds its start to the work.  The
-    results are the same either way."""
+    :func:`workers`, $SNRGAIN_WORKERS), and a core free now (:func:`runnable_now`: no more threads ready to run, this
+    one among them, than the cores less one) or a load average (the last minute's, this process in it) at least half
+    a core short of the cores.  On a machine already busy a second process only adds its start to the work; the
+    load average alone lags a minute behind (a machine just left idle by other work looks busy).  The results are
+    the same either way."""
     if workers(2) < 2:
         return False
     try:
@@ -65,7 +67,18 @@ def spare_core() -> bool:
         load = os.getloadavg()[0]
     except (AttributeError, OSError):  # not known here
         return True
-    return load <= cores - 0.5
+    now = runnable_now()
+    return (now is not None and now <= cores - 1) or load <= cores - 0.5
+
+
+def runnable_now() -> int | None:
+    """How many threads on the machine are running or ready to run at this instant, this one among them (Linux's
+    /proc/loadavg, its fourth field); None where it is not known."""
+    try:
+        with open("/proc/loadavg", encoding="ascii") as f:
+            return int(f.read().split()[3].split("/")[0])
+    except (OSError, IndexError, ValueError):
+        return None
 
 
 @contextmanager

@@ -3,6 +3,8 @@ objective along a narrow ridge, keeps the rules, and ends where no stencil at it
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 
@@ -117,3 +119,34 @@ def test_a_bearing_range_across_north_is_searched_across_it(monkeypatch):
         got = pr.polish(i, start)
         b = (np.degrees(got.bearing_rad) + 180.0) % 360.0 - 180.0
         assert b == pytest.approx(want, abs=0.5)
+
+
+def test_the_refinement_in_two_processes_is_the_refinement_in_one(monkeypatch):
+    # The grid's best layout of the demo, each wire polished in turn: with a spare core the Pacific wire is polished
+    # in a forked process beside the Europe wire as it started, while this one polishes the Europe wire; the Pacific
+    # wire's search is then replayed here beside the Europe wire as it ended, reading the stencils that process
+    # scored.  Beside the two Europe wires the rules keep other designs in some of its stencils (the wires pass
+    # near each other), yet the designs found are the turn-by-turn search's, to the bit, and nothing is scored anew.
+    start = [
+        Design("Beverage Europe", 18.32364259186605, 87.1120137021053, 0.6981317007977317, 250.0),
+        Design("Beverage Pacific", 155.90038481234458, -27.53527148162679, 5.348187493611196, 217.5),
+    ]
+    monkeypatch.setattr(lay, "spare_core", lambda: False)
+    one = _problem()
+    alone = one._polished(list(start))[0]
+    monkeypatch.setattr(lay, "spare_core", lambda: True)
+    two = _problem()
+    calls = []
+    scored = two.snr_gains_db
+    monkeypatch.setattr(two, "snr_gains_db", lambda ds, i, exact=False: calls.append(i) or scored(ds, i, exact=exact))
+    shared, extra = two._polished(list(start), lambda: "done meanwhile")
+    assert shared == alone
+    assert extra == "done meanwhile"
+    assert 0 in calls and 1 not in calls  # the Pacific wire's stencils all read from the other process
+    # the rules beside the Europe wire as it started and as it ended differ on some of the Pacific wire's designs
+    near = [
+        replace(alone[1], east_m=alone[1].east_m + dx, north_m=alone[1].north_m + dy)
+        for dx in np.linspace(-40.0, 40.0, 9)
+        for dy in np.linspace(-40.0, 40.0, 9)
+    ]
+    assert list(two.keep_rules(near, [start[0]])) != list(two.keep_rules(near, [alone[0]]))

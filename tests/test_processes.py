@@ -19,13 +19,29 @@ def test_a_forked_process_only_beside_a_spare_core(monkeypatch):
 
     monkeypatch.setattr(os, "sched_getaffinity", lambda pid: {0, 1}, raising=False)
     monkeypatch.setattr(processes, "workers", lambda count: 2)
+    monkeypatch.setattr(processes, "runnable_now", lambda: 2)  # this process and one other ready to run now
     monkeypatch.setattr(os, "getloadavg", lambda: (1.2, 1.0, 1.0))
     assert processes.spare_core()
     monkeypatch.setattr(os, "getloadavg", lambda: (3.0, 1.0, 1.0))  # busy: no second process
     assert not processes.spare_core()
+    monkeypatch.setattr(processes, "runnable_now", lambda: 1)  # the last minute busy, but a core free now
+    assert processes.spare_core()
+    monkeypatch.setattr(processes, "runnable_now", lambda: None)  # not known: the load average decides
+    assert not processes.spare_core()
     monkeypatch.setattr(processes, "workers", lambda count: 1)  # one core, no fork, or SNRGAIN_WORKERS=1
     monkeypatch.setattr(os, "getloadavg", lambda: (0.0, 0.0, 0.0))
+    monkeypatch.setattr(processes, "runnable_now", lambda: 1)
     assert not processes.spare_core()
+
+
+def test_runnable_now_counts_this_thread_where_the_machine_says():
+    import sys
+
+    now = processes.runnable_now()
+    if sys.platform.startswith("linux"):
+        assert now is not None and now >= 1  # this thread is running as it reads the file
+    else:
+        assert now is None
 
 
 def test_workers_setting_is_checked(monkeypatch):

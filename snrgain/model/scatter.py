@@ -167,9 +167,13 @@ def _alone_worked(antenna, freq_hz: float):
         ring = np.radians(np.arange(0.0, 360.0, 1.0))
         ev, eh = antenna.complex_response(freq_hz, ring, np.full(ring.shape, fwd_el))
         bearing = float(ring[np.argmax(np.abs(ev) ** 2 + np.abs(eh) ** 2)])
-    az = np.concatenate([az, [bearing, (bearing + np.pi) % (2 * np.pi)]])
-    el = np.concatenate([el, [fwd_el, fwd_el]])
-    response = antenna.complex_response(freq_hz, az, el)
+    ends = np.array([bearing, (bearing + np.pi) % (2 * np.pi)]), np.array([fwd_el, fwd_el])
+    # the grid's directions and the two of the design apart: the grid's geometry is kept (one set for every design)
+    response = tuple(
+        np.concatenate(parts)
+        for parts in zip(antenna.complex_response(freq_hz, az, el), antenna.complex_response(freq_hz, *ends))
+    )
+    az, el = np.concatenate([az, ends[0]]), np.concatenate([el, ends[1]])
     return az, el, bearing, response, _metrics(*response, az, el, bearing, fwd_el)
 
 

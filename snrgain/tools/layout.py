@@ -413,12 +413,19 @@ class Problem:
         columns = self.violation_columns(designs, others)
         return [{rule: float(v[j]) for rule, v in columns if v[j] > 0} for j in range(len(designs))]
 
-    def keep_rules(self, designs: list[Design], others=()) -> np.ndarray:
-        """Whether each design keeps every rule beside ``others`` (:meth:`violations_many` empty), as an array."""
+    def keep_rules(self, designs: list[Design], others=(), *, alone: bool = False):
+        """Whether each design keeps every rule beside ``others`` (:meth:`violations_many` empty), as an array;
+        ``alone``: (whether each keeps the rules that do not name one of ``others``, that array), from one pass."""
         columns = self.violation_columns(designs, others, flags=True)
-        if not columns:
-            return np.ones(len(designs), dtype=bool)
-        return ~np.any(np.array([v > 0 for _, v in columns]), axis=0)
+        sep = length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)
+        theirs = {f"{sep} from the wire {o.name!r}" for o in others} if alone else set()
+        kept = np.ones(len(designs), dtype=bool)
+        by_itself = kept.copy()
+        for rule, v in columns:
+            kept &= v <= 0
+            if rule not in theirs:
+                by_itself &= v <= 0
+        return (by_itself, kept) if alone else kept
 
     def violation_columns(
         self, designs: list[Design], others=(), *, flags: bool = False, wires=None
@@ -596,14 +603,10 @@ class Problem:
                 self.snr_gains_db(
                     [g for g in feasible[i] if (g.bearing_rad, g.length_m) == (d.bearing_rad, d.length_m)], i
                 )
-        if len(chosen) > 1 and spare_core():  # the next-best layouts scored in a forked process meanwhile
-            with elsewhere(lambda: [self._layout(designs) for designs in chosen[1:]]) as theirs:
-                layouts = [self.refine(self._layout(chosen[0]))]
-                rest = theirs()
-            layouts += rest if rest is not None else [self._layout(designs) for designs in chosen[1:]]
-        else:
-            layouts = [self._layout(designs) for designs in chosen]
-            layouts[0] = self.refine(layouts[0])
+        # the refinement, with the layouts as the ranking scores them (its start's and the next-best ones') worked
+        # beside it (:meth:`_polished`)
+        designs, layouts = self._polished(list(chosen[0]), lambda: [self._layout(d) for d in chosen])
+        layouts[0] = self._better(layouts[0], designs)
         layouts.sort(key=lambda lay: -lay.worth_db)
         return layouts
 
@@ -663,9 +666,10 @@ class Problem:
     def refine(self, start: Layout) -> Layout:
         """A local search from ``start`` (:meth:`polish`), each candidate in turn beside the others as they stand;
         the start is kept unless the layout found keeps every rule and is better (as the ranking scores it)."""
-        designs = list(start.designs)
-        for i in range(len(designs)):
-            designs[i] = self.polish(i, designs[i], designs[:i] + designs[i + 1 :])
+        return self._better(start, self._polished(list(start.designs))[0])
+
+    def _better(self, start: Layout, designs: list[Design]) -> Layout:
+        """The layout of ``designs`` where they differ from ``start``'s, keep every rule and do better; else start."""
         if designs != list(start.designs) and all(
             self.violation_m(d, designs[:j]) == 0.0 for j, d in enumerate(designs)
         ):
@@ -674,7 +678,48 @@ class Problem:
                 return cand
         return start
 
-    def polish(self, i: int, start: Design, others=()) -> Design:
+    def _polished(self, designs: list[Design], meanwhile=None) -> tuple[list[Design], object]:
+        """(each candidate polished in turn (:meth:`polish`) beside the others as they stand: the ones before it
+        polished, the ones after it as they started; what ``meanwhile()`` gives, or None).
+
+        On a spare core the candidates from the second on are polished meanwhile in a forked process, beside the
+        first as it started, which keeps every stencil's scores, while this one polishes the first and then runs
+        ``meanwhile``; each is then polished here in its turn with those scores at hand, so only a stencil that
+        process did not score (the rules beside the first as it ended keep other designs) is scored here: the same
+        search, the same scores.  With one candidate, ``meanwhile`` is what runs in the forked process."""
+        seen: list = [None] * len(designs)
+        first, extra = 0, None
+        if spare_core() and (len(designs) > 1 or meanwhile is not None):
+            if len(designs) > 1:
+
+                def rest():
+                    mine, out = list(designs), []
+                    for i in range(1, len(mine)):
+                        out.append({})
+                        mine[i] = self.polish(i, mine[i], mine[:i] + mine[i + 1 :], scored=out[-1])
+                    return out
+
+                with elsewhere(rest) as theirs:
+                    designs[0] = self.polish(0, designs[0], designs[1:])
+                    extra = meanwhile() if meanwhile is not None else None
+                    found = theirs()
+                if found is not None:
+                    seen[1:] = found
+                first = 1
+            else:
+                with elsewhere(meanwhile) as theirs:
+                    designs[0] = self.polish(0, designs[0])
+                    extra = theirs()
+                first = 1
+                if extra is None:  # the other process failed
+                    extra = meanwhile()
+        for i in range(first, len(designs)):
+            designs[i] = self.polish(i, designs[i], designs[:i] + designs[i + 1 :], scored=seen[i])
+        if meanwhile is not None and extra is None:
+            extra = meanwhile()
+        return designs, extra
+
+    def polish(self, i: int, start: Design, others=(), *, scored: dict | None = None) -> Design:
         """Candidate i's design near ``start`` with the best score (:meth:`snr_gains_db`) that keeps every rule
         beside ``others``: a compass search (a pattern search with a shrinking stencil: R. M. Lewis, V. Torczon and
         M. W. Trosset, "Direct search methods: then and now", J. Comput. Appl. Math. 124 (2000) 191-207) over the
@@ -687,7 +732,8 @@ class Problem:
         better is taken (the one that did last tried first, its step doubled when it does better again, up to half the
         grid's spacing); when none does, every step is halved, down to REFINE_LEAST_*, and the search ends when a
         stencil of those least steps finds nothing better.  Steps start at REFINE_FIRST_STEP of the grid's spacing
-        (the grid's best is within half of it of a better design)."""
+        (the grid's best is within half of it of a better design).  ``scored``: the scores of the stencils scored
+        before, by their designs, read from it and kept in it (:meth:`_polished`)."""
         pl = self.places[i]
         b0 = start.bearing_rad
         has_b = pl.bearing is not None and b0 is not None and not self.switched[i]
@@ -703,7 +749,11 @@ class Problem:
             "l": (hi_l - lo_l) / (LENGTHS_PER_RANGE - 1) if has_l else 0.0,
         }
         cur = start
-        best = self.snr_gain_db(cur, i)
+        best = None if scored is None else scored.get((cur,))
+        if best is None:
+            best = self.snr_gain_db(cur, i)
+            if scored is not None:
+                scored[(cur,)] = best
         ring = [(dx, dy) for dx in (-1, 0, 1) for dy in (-1, 0, 1) if dx or dy]
         least = {"p": REFINE_LEAST_STEP_M, "b": REFINE_LEAST_BEARING_RAD, "l": REFINE_LEAST_LENGTH_M}
         top = {k: v / 2 for k, v in spacing.items()}
@@ -740,10 +790,23 @@ class Problem:
                     replace(cur, east_m=cur.east_m + dx * sp, north_m=cur.north_m + dy * sp, bearing_rad=b, length_m=ln)
                     for dx, dy in offsets
                 ]
-                ok = [d for d, keep in zip(trial, self.keep_rules(trial, others)) if keep]
-                if not ok:
+                # scored: the designs that keep the rules standing alone (the same stencil beside the others as
+                # they stand anywhere, :meth:`_polished`); chosen from: those that keep them beside the others too
+                alone, kept = self.keep_rules(trial, others, alone=True)
+                if not kept.any():
                     continue
-                g = self.snr_gains_db(ok, i) if len(ok) > 1 else np.array([self.snr_gain_db(ok[0], i)])
+                group = tuple(d for d, keep in zip(trial, alone) if keep)
+                g = None if scored is None else scored.get(group)
+                if g is None:
+                    g = (
+                        self.snr_gains_db(list(group), i)
+                        if len(group) > 1
+                        else np.array([self.snr_gain_db(group[0], i)])
+                    )
+                    if scored is not None:
+                        scored[group] = g
+                g = g[kept[alone]]
+                ok = [d for d, keep in zip(trial, kept) if keep]
                 k = int(np.argmax(g))
                 if g[k] > best + REFINE_LEAST_GAIN_DB:
                     if last == (kind, sign):  # the same move again: a longer step (up to the first)
