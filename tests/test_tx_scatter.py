@@ -670,3 +670,29 @@ def test_the_cost_of_many_places_on_a_lattice_equals_each_place_alone():
     many = _rdf_at(sums, cs, d, k, ux, uy)
     alone = np.array([_rdf_at(sums, cs[p : p + 1], d[p : p + 1], k, ux, uy)[0] for p in range(len(d))])
     assert np.max(np.abs(many - alone)) < 1e-9
+
+
+def test_a_loop_at_many_places_chooses_its_resistor_once(monkeypatch):
+    """A terminated loop whose resistor "auto" chooses, heard by the vertical at many places (a layout's grid): its
+    perfect-ground twin is made once and stood at each place, so the resistor is searched once, and each place's
+    coupling is the same, to the bit, as with a twin made afresh there."""
+    from snrgain.antennas import longwire, termloop
+    from snrgain.memo import forget
+
+    lam = 299792458.0 / F_HZ
+    tx = TxVertical(from_si("vertical", height=lam / 4, ground="moist loam"), (0.0, 0.0), 50.0)
+    flag = from_si(
+        "terminated-loop", width=8.0, loop_height=4.0, height=1.5, ground="moist loam", termination="auto", bearing=0.5
+    )
+    places = [(30.0 + 7.0 * k, 20.0 - 3.0 * k) for k in range(6)]
+    forget()
+    searches = []
+    best = longwire.best_resistor
+    monkeypatch.setattr(termloop, "best_resistor", lambda *a, **k: searches.append(1) or best(*a, **k))
+    shared = [scatter.coupling_terms(flag.at(p), tx, F_HZ, p)[0] for p in places]
+    assert len(searches) == 1  # the twin's, over the perfect ground
+    monkeypatch.setattr(scatter, "_TWINS", scatter.Memo(0))  # no twin kept: one made afresh at every place
+    forget()
+    alone = [scatter.coupling_terms(flag.at(p), tx, F_HZ, p)[0] for p in places]
+    assert len(searches) == 1 + len(places)
+    assert shared == alone

@@ -207,10 +207,23 @@ def _centre_height(antenna) -> float:
     return low + 0.5 * float(span) if span is not None else 0.5 * low if antenna.resonant_tx else low
 
 
+_TWINS = Memo(64)
+
+
 def _perfect_twin(antenna):
+    """The antenna over a perfect ground.  One twin is made per design (its gains key and name) and stood where
+    each place asks (``at``): its copies share what it worked out, such as the resistor "auto" chooses, which does
+    not depend on where it stands (it was searched again at every place of a layout's grid)."""
     from snrgain.antennas.base import variant
 
-    return variant(antenna, ground="perfect") if getattr(antenna, "ground", None) is not None else antenna
+    if getattr(antenna, "ground", None) is None:
+        return antenna
+    key = antenna.gain_key()
+    place = antenna.params.position
+    if key is None or place is None or getattr(antenna, "switched", None) is not None:
+        return variant(antenna, ground="perfect")
+    twin = _TWINS.get((key, antenna.name), lambda: variant(antenna, ground="perfect"))
+    return twin if twin.params.position == place else twin.at(place)
 
 
 def parts(antenna, freq_hz: float, at_m):
