@@ -373,6 +373,10 @@ class Problem:
         end = (d.east_m + d.length_m * np.sin(d.bearing_rad), d.north_m + d.length_m * np.cos(d.bearing_rad))
         return LineString([(d.east_m, d.north_m), end])
 
+    def _near_rule(self, what: str, name: str) -> str:
+        """The rule keeping a design WIRE_SEPARATION_M from the ``what`` ("wire", "antenna") named ``name``."""
+        return f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the {what} {name!r}"
+
     def violations(self, d: Design, others=()) -> dict[str, float]:
         """How far a design breaks each rule [m], by the rule and what it names: outside the lot, inside a keep-out
         area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing) or to an
@@ -397,13 +401,11 @@ class Problem:
         wires = list(zip(self.fixed_names, self.fixed_wires)) + [(o.name, self.footprint(o)) for o in others]
         for name, w in wires:
             if shape.length > 0 and w.length > 0:
-                out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}"] = (
+                out[self._near_rule("wire", name)] = (
                     10.0 if shape.intersects(w) else max(0.0, WIRE_SEPARATION_M - shape.distance(w))
                 )
         for name, spot in self.fixed_spots:
-            out[f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the antenna {name!r}"] = max(
-                0.0, WIRE_SEPARATION_M - shape.distance(spot)
-            )
+            out[self._near_rule("antenna", name)] = max(0.0, WIRE_SEPARATION_M - shape.distance(spot))
         return {k: float(x) for k, x in out.items() if x > 0}
 
     def violations_many(self, designs: list[Design], others=()) -> list[dict[str, float]]:
@@ -417,8 +419,7 @@ class Problem:
         """Whether each design keeps every rule beside ``others`` (:meth:`violations_many` empty), as an array;
         ``alone``: (whether each keeps the rules that do not name one of ``others``, that array), from one pass."""
         columns = self.violation_columns(designs, others, flags=True)
-        sep = length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)
-        theirs = {f"{sep} from the wire {o.name!r}" for o in others} if alone else set()
+        theirs = {self._near_rule("wire", o.name) for o in others} if alone else set()
         kept = np.ones(len(designs), dtype=bool)
         by_itself = kept.copy()
         for rule, v in columns:
@@ -491,14 +492,14 @@ class Problem:
                 )
                 columns.append(
                     (
-                        f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the wire {name!r}",
+                        self._near_rule("wire", name),
                         np.where(line, near, 0.0),
                     )
                 )
         for name, spot in self.fixed_spots:
             columns.append(
                 (
-                    f"{length_text(WIRE_SEPARATION_M, self.sc.site.length_unit, 0)} from the antenna {name!r}",
+                    self._near_rule("antenna", name),
                     np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, spot)),
                 )
             )
@@ -685,11 +686,13 @@ class Problem:
         On a spare core the candidates from the second on are polished meanwhile in a forked process, beside the
         first as it started, which keeps every stencil's scores, while this one polishes the first and then runs
         ``meanwhile``; each is then polished here in its turn with those scores at hand, so only a stencil that
-        process did not score (the rules beside the first as it ended keep other designs) is scored here: the same
-        search, the same scores.  With one candidate, ``meanwhile`` is what runs in the forked process."""
+        process did not score (where the first's end, not its start, turns the search another way) is scored here:
+        the same search, the same scores (a stencil is scored on the designs that keep the rules standing alone,
+        whichever way the others stand).  With one candidate, ``meanwhile`` is what runs in the forked process."""
         seen: list = [None] * len(designs)
         first, extra = 0, None
         if spare_core() and (len(designs) > 1 or meanwhile is not None):
+            first = 1
             if len(designs) > 1:
 
                 def rest():
@@ -705,14 +708,10 @@ class Problem:
                     found = theirs()
                 if found is not None:
                     seen[1:] = found
-                first = 1
             else:
                 with elsewhere(meanwhile) as theirs:
                     designs[0] = self.polish(0, designs[0])
-                    extra = theirs()
-                first = 1
-                if extra is None:  # the other process failed
-                    extra = meanwhile()
+                    extra = theirs()  # None where the other process failed: worked below
         for i in range(first, len(designs)):
             designs[i] = self.polish(i, designs[i], designs[:i] + designs[i + 1 :], scored=seen[i])
         if meanwhile is not None and extra is None:
