@@ -1,13 +1,25 @@
-"""Agg and SVG canvases for the command line's figures that measure each text once for all their figures.
+"""Agg and SVG canvases for the command line's figures that measure each text once for all their figures, and (Agg)
+draw each text from one picture of it.
 
 Text is most of a figure's drawing time.  matplotlib's renderers measure a text (its width, height and descent)
 through FreeType each time a new renderer meets it (its cache belongs to one renderer, and every figure has its
 own).  The figures of one command draw the same texts over and over (the antennas' names in every legend, the tick
 labels, the titles of three azimuth patterns).  :class:`RememberingRenderer` and :class:`RememberingSVGRenderer`
-keep those answers for the process: the same numbers as matplotlib's own (tested: the same pixels and files), each
-found once.  Only the renderers' public methods are answered so, on classes of our own; the SVG canvas is handed
-to ``savefig`` by its public ``backend`` keyword (:data:`SVG_BACKEND`).  A figures' process that fills them (the
-site plan drawn ahead, :mod:`snrgain.outputs.drawing`) hands them to the workers it forks.
+keep those answers for the process: the same numbers as matplotlib's own (tested: the same SVG files), each
+found once.  The SVG canvas is handed to ``savefig`` by its public ``backend`` keyword (:data:`SVG_BACKEND`).  A
+figures' process that fills them (the site plan drawn ahead, :mod:`snrgain.outputs.drawing`) hands them to the
+workers it forks.
+
+Drawing a text in a PNG is the other half of its cost.  matplotlib 3.11 lays each text out afresh (HarfBuzz shaping,
+a fifth of a millisecond) and renders it glyph by glyph at its sub-pixel place; :class:`RememberingRenderer` renders
+a text once, whole, as matplotlib did up to 3.10 (FreeType's ``set_text`` and ``draw_glyphs_to_bitmap``, the picture
+put down at the nearest whole pixel and turned there by the renderer's ``draw_text_image``, as matplotlib's own TeX
+text still is; its offsets from the pen turned with it, which 3.10 did for the descent only), and puts the same
+picture down wherever the text comes again.  The letters then stand within about a pixel of where 3.11 puts them
+(tested: the same measure, the same ink, its box within a pixel on every side, turned or not); a PNG figure draws
+in about two thirds of the time.  This uses two of the Agg renderer's internal methods (``_prepare_font``, and
+``draw_text_image`` of its ``_renderer``); where they are missing or refuse, the text is drawn by matplotlib's
+``draw_text`` from then on.
 
 The answers depend on the font settings in force when they were found, so the canvas is used only where those
 are fixed: in the figures' processes of the command line (:func:`remember_text`, set by
@@ -18,7 +30,10 @@ are fixed: in the figures' processes of the command line (:func:`remember_text`,
 from __future__ import annotations
 
 import codecs
+import math
 
+import matplotlib as mpl
+import numpy as np
 from matplotlib import cbook
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.backends.backend_mixed import MixedModeRenderer
@@ -31,6 +46,14 @@ LIMIT = 50_000
 """Most answers kept of each kind; past it they are forgotten and found again (memory stays bounded)."""
 
 _MEASURED: dict = {}  # (text, font, dpi, hinting) -> (width, height, descent)
+
+PICTURES = 5_000
+"""Most texts' pictures kept (:class:`RememberingRenderer`): past it they are forgotten and rendered again."""
+
+_PICTURES: dict = {}  # (text, font, dpi, hinting, antialiased) -> (coverage [uint8 rows], descent, x and y offset) [px]
+_WHOLE = True
+"""Whether :class:`RememberingRenderer` draws texts from their pictures (off for good once the renderer's internals
+it uses refuse)."""
 
 
 def remember_text(on: bool = True) -> bool:
@@ -45,8 +68,9 @@ def remember_text(on: bool = True) -> bool:
 
 
 def forget() -> None:
-    """Forget every text measured."""
+    """Forget every text measured, and every text's picture."""
     _MEASURED.clear()
+    _PICTURES.clear()
 
 
 def new_canvas(fig):
@@ -69,24 +93,72 @@ def _font_key(prop) -> tuple:
     )
 
 
-def _keep(store: dict, key, value):
-    if len(store) >= LIMIT:
+def _keep(store: dict, key, value, limit: int = LIMIT):
+    if len(store) >= limit:
         store.clear()
     store[key] = value
     return value
 
 
 class RememberingRenderer(RendererAgg):
-    """matplotlib's Agg renderer, with each text's measure found once for the process."""
+    """matplotlib's Agg renderer, with each text's measure found once for the process and each text drawn from one
+    picture of it (module docstring).  A text is laid out once for both: measured as matplotlib measures it (its
+    ``get_text_width_height_descent``: FreeType's ``set_text``, then the width, height and descent) and rendered from
+    the same layout, with the antialiasing texts are drawn with unless told otherwise."""
+
+    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
+        global _WHOLE
+        shaped = mtext is not None and any(
+            getattr(mtext, name, lambda: None)() is not None for name in ("get_fontfeatures", "get_language")
+        )
+        if ismath or shaped or not _WHOLE:  # mathematics, or a text asking HarfBuzz for features: matplotlib's way
+            return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+        antialiased = bool(gc.get_antialiased())
+        try:
+            found = _PICTURES.get((s, _font_key(prop), self.dpi, get_hinting_flag(), antialiased))
+            if found is None:
+                found = self._lay_out(s, prop, antialiased)[1]
+            picture, descent, xo, yo = found
+            # The picture's corner at the nearest whole pixel: its offsets from the pen (along the baseline, and the
+            # descent and a pixel below it, as matplotlib <= 3.10 put it) turned with the text (y downwards)
+            cos, sin = math.cos(math.radians(angle)), math.sin(math.radians(angle))
+            below = yo + descent + 1.0
+            left = round(x + xo * cos + below * sin)
+            top = round(y - xo * sin + below * cos)
+            self._renderer.draw_text_image(picture, left, top, angle, gc)
+        except (AttributeError, TypeError):  # the internals differ in this matplotlib: its own way from now on
+            _WHOLE = False
+            return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
 
     def get_text_width_height_descent(self, s, prop, ismath):
+        global _WHOLE
         if ismath:
             return super().get_text_width_height_descent(s, prop, ismath)
         key = (s, _font_key(prop), self.dpi, get_hinting_flag())
         found = _MEASURED.get(key)
+        if found is None and _WHOLE:
+            try:
+                found = self._lay_out(s, prop, bool(mpl.rcParams["text.antialiased"]))[0]
+            except (AttributeError, TypeError):  # as in draw_text
+                _WHOLE = False
         if found is None:
             found = _keep(_MEASURED, key, super().get_text_width_height_descent(s, prop, ismath))
         return found
+
+    def _lay_out(self, s, prop, antialiased: bool) -> tuple[tuple, tuple]:
+        """Lay ``s`` out once: keep its measure (width, height, descent [px], as matplotlib's
+        ``get_text_width_height_descent`` finds them) and its picture drawn ``antialiased`` (coverage, descent and
+        the picture's offsets from the pen [px]); both returned."""
+        font = self._prepare_font(prop)
+        font.set_text(s, 0.0, flags=get_hinting_flag())
+        w, h = font.get_width_height()  # of the unturned text, in 64ths of a pixel
+        descent = font.get_descent() / 64.0
+        measure = _keep(_MEASURED, (s, _font_key(prop), self.dpi, get_hinting_flag()), (w / 64.0, h / 64.0, descent))
+        font.draw_glyphs_to_bitmap(antialiased=antialiased)
+        xo, yo = font.get_bitmap_offset()
+        picture = np.array(font.get_image(), dtype=np.uint8)  # a copy: the font's buffer is drawn over next
+        key = (s, _font_key(prop), self.dpi, get_hinting_flag(), antialiased)
+        return measure, _keep(_PICTURES, key, (picture, descent, xo / 64.0, yo / 64.0), PICTURES)
 
 
 class RememberingCanvas(FigureCanvasAgg):
