@@ -714,6 +714,44 @@ def test_a_text_drawn_from_its_picture_is_matplotlibs_text(angle, size):
         canvas.remember_text(was)
 
 
+def test_the_remembering_renderers_lay_text_out_as_matplotlib_does():
+    # snrgain.outputs.canvas answers matplotlib's text layout's question for a font's line metrics (ascent, descent,
+    # line gap) from numbers found once per font and size: every text's box, one line or several, at several sizes,
+    # weights and dpi, is the box matplotlib lays out with its own renderer, to the bit (the SVG files of the test
+    # above check the SVG renderer's answers).
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    from snrgain.outputs import canvas
+
+    was = canvas.remember_text(True)
+    try:
+        for dpi in (72.0, 110.0):
+            boxes = {}
+            for kind in (FigureCanvasAgg, canvas.RememberingCanvas):
+                fig = Figure(figsize=(4.0, 3.0), dpi=dpi)
+                kind(fig)
+                texts = [
+                    fig.text(0.1, 0.1 * k, text, fontsize=size, weight=weight, linespacing=spacing)
+                    for k, (text, size, weight, spacing) in enumerate(
+                        [
+                            ("SNR gain (dB)", 10, "normal", 1.2),
+                            ("Ranking at Sorrel Bend\n(invented benchmark site)", 12, "bold", 1.2),
+                            ("three\nlines\nhere", 8, "normal", 1.0),
+                            ("one", 14, "normal", 1.5),
+                        ]
+                    )
+                ]
+                renderer = fig.canvas.get_renderer()
+                boxes[kind] = [t.get_window_extent(renderer).bounds for t in texts]
+            assert boxes[FigureCanvasAgg] == boxes[canvas.RememberingCanvas]
+        assert canvas._HEIGHTS
+        canvas.forget()
+        assert not canvas._HEIGHTS
+    finally:
+        canvas.remember_text(was)
+
+
 def test_the_sky_weights_made_ahead_draw_the_same_sky(results, monkeypatch):
     # plots.prepare_sky makes the sky figure's interpolation weights before the results (the figures' process
     # does, while the command evaluates): the figure drawn with them is the figure drawn without, byte for byte.
