@@ -314,8 +314,8 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
 
 def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp_path):
     # a feed line on a placeable candidate: the layout scores the antenna without it (its run depends on where the
-    # antenna stands) and says so; the written layout ranks with it, and rank's nominal equals the layout's score
-    # for the antenna without a feed line
+    # antenna stands) and says so, its layouts those of the same file without the line; the written layout ranks
+    # with it, and rank's nominal equals the layout's score for the antenna without a feed line
     text = (DATA / FILES[0]).read_text(encoding="utf-8")
     marker = 'place = { bearing = ["30 deg", "60 deg"]'
     assert marker in text
@@ -328,6 +328,11 @@ def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp
     assert res.exit_code == 0, res.output
     got = json.loads(res.stdout)
     assert got["notes"] and got["notes"][0].startswith("Beverage Europe: its feed line is not in the layout's score")
+    unfed = tmp_path / "unfed.toml"
+    unfed.write_text(text.replace('feed_line = { to = [30, 12], height = "buried" }\n', "", 1), encoding="utf-8")
+    plain = runner.invoke(cli, ["layout", str(unfed), "--format", "json"])
+    assert plain.exit_code == 0, plain.output
+    assert got["layouts"] == json.loads(plain.stdout)["layouts"]
     best = {c["name"]: c for c in got["layouts"][0]["candidates"]}
     rank = runner.invoke(cli, ["rank", str(out), "--format", "json"])
     assert rank.exit_code == 0, rank.output

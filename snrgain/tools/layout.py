@@ -144,6 +144,12 @@ class Problem:
                 )
         from snrgain.model import pipeline
 
+        # A placeable candidate's feed line is not scored here (unscored_feed_lines: its run, and what it hears,
+        # depend on where the antenna stands): its designs are scored without it.  The scenario's lines are found
+        # by the antenna's name, which every design keeps, so the placeable ones are taken out of it.
+        moved = {sc.candidates[k].name for ks in self.members for k in ks}
+        if any(name in moved for name in sc.feed_lines):
+            sc = replace(sc, feed_lines={n: fl for n, fl in sc.feed_lines.items() if n not in moved})
         sc = self.sc = pipeline.resolve_sources(sc)
         self.grid = pipeline.sky_grid(sc)
         self.skies = pipeline.build_sky(sc, self.grid)
@@ -174,7 +180,6 @@ class Problem:
         self.scatterer = tx_vertical(sc) if self.tx is not None else None
         self.structures = structure_scatterers(sc)
         self.cost_computed = [modelled(a.at((0.0, 0.0))) for a in self.base]
-        moved = {sc.candidates[k].name for ks in self.members for k in ks}
         fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in moved and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
         self.fixed_wires = [w for _, w in fixed if w is not None]
