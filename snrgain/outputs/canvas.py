@@ -6,42 +6,24 @@ through FreeType each time a new renderer meets it (its cache belongs to one ren
 own).  The figures of one command draw the same texts over and over (the antennas' names in every legend, the tick
 labels, the titles of three azimuth patterns).  :class:`RememberingRenderer` and :class:`RememberingSVGRenderer`
 keep those answers for the process: the same numbers as matplotlib's own (tested: the same SVG files), each
-found once.  The SVG canvas is handed to ``savefig`` by its public ``backend`` keyword (:data:`SVG_BACKEND`).  A
-figures' process that fills them (the site plan drawn ahead, :mod:`snrgain.outputs.drawing`) hands them to the
-workers it forks.
+found once.  Only the renderers' public methods are answered so, on classes of our own; the SVG canvas is handed
+to ``savefig`` by its public ``backend`` keyword (:data:`SVG_BACKEND`).  A figures' process that fills them (the
+site plan drawn ahead, :mod:`snrgain.outputs.drawing`) hands them to the workers it forks.
 
-Drawing a text in a PNG is the other half of its cost.  matplotlib 3.11 lays each text out afresh (HarfBuzz shaping,
-a fifth of a millisecond) and renders it glyph by glyph at its sub-pixel place; :class:`RememberingRenderer` renders
-a text once, whole, as matplotlib did up to 3.10 (FreeType's ``set_text`` and ``draw_glyphs_to_bitmap``, the picture
-put down at the nearest whole pixel and turned there by the renderer's ``draw_text_image``, as matplotlib's own TeX
-text still is; its offsets from the pen turned with it, which 3.10 did for the descent only), and puts the same
-picture down wherever the text comes again.  The letters then stand within about a pixel of where 3.11 puts them
-(tested: the same measure, the same ink, its box within a pixel on every side, turned or not).  A PNG figure whose
-texts were met before draws in about two thirds of the time, a figure of new texts about a tenth quicker (measured
-on the realistic site's figures).
-
-Laying a text out, matplotlib 3.11 reads the font's line metrics (its ascent, descent and line gap) from the
-font's tables each time, finding the font file first: more time than the text's own measure.  Both remembering
-renderers answer the question matplotlib's layout asks a renderer first (``_get_font_height_metrics``, an internal
-hook of matplotlib >= 3.11; older versions never ask) from numbers found once per font and size, by the same reading
-of the same tables: the same files (tested), the figures about a tenth quicker.  Where that reading fails the renderer
-answers nothing and matplotlib reads the tables itself.
-
-matplotlib internals used here, four in all, each with matplotlib's own way as the fallback where it is missing or
-refuses: the Agg renderer's ``_prepare_font`` and its ``_renderer.draw_text_image`` (a text's picture; the text is
-then drawn by matplotlib's ``draw_text`` from then on), the text layout's ``_get_font_height_metrics`` hook and
-``fontManager._find_fonts_by_props`` (the line metrics; matplotlib then reads them itself).
-
-The answers depend on the font settings in force when they were found, so the canvas is used only where those
-are fixed: in the figures' processes of the command line (:func:`remember_text`, set by
-:mod:`snrgain.outputs.drawing`).  Elsewhere (a notebook, where a user may change the fonts between two figures)
-:func:`new_canvas` gives matplotlib's own canvas.
+Drawing a text in a PNG is the other half of its cost: matplotlib 3.11 shapes each text afresh and renders it glyph
+by glyph at its sub-pixel place.  :class:`RememberingRenderer` lays a text out once, through the public calls of
+matplotlib's FreeType font (``set_text``, ``draw_glyphs_to_bitmap``, ``get_image``: the way matplotlib drew a text
+up to 3.10), keeps its measure and its picture, and puts the picture down with the renderer's public
+``draw_image`` at the nearest whole pixel wherever the text comes again, level or turned a quarter turn (a y axis'
+label).  The letters then stand within about a pixel of where matplotlib 3.11 puts them (tested: the same measure,
+the same ink, its box within a pixel on every side).  A text turned otherwise, set in mathematics, asking for font
+features, or with a character its font lacks (matplotlib would take it from a fallback font) is drawn by
+matplotlib's own ``draw_text``; so is every text where the font's calls refuse.
 """
 
 from __future__ import annotations
 
 import codecs
-import math
 
 import matplotlib as mpl
 import numpy as np
@@ -49,7 +31,7 @@ from matplotlib import cbook
 from matplotlib.backends.backend_agg import FigureCanvasAgg, RendererAgg, get_hinting_flag
 from matplotlib.backends.backend_mixed import MixedModeRenderer
 from matplotlib.backends.backend_svg import FigureCanvasSVG, RendererSVG
-from matplotlib.font_manager import fontManager, get_font
+from matplotlib.font_manager import findfont, get_font
 
 _REMEMBER = False
 """Whether :func:`new_canvas` gives the remembering canvas (the command line's figures' processes)."""
@@ -60,13 +42,12 @@ LIMIT = 50_000
 _MEASURED: dict = {}  # (text, font, dpi, hinting) -> (width, height, descent)
 
 PICTURES = 5_000
-"""Most texts' pictures kept (:class:`RememberingRenderer`): past it they are forgotten and rendered again."""
+"""Most texts' pictures kept (:class:`RememberingRenderer`): past it they are forgotten and made again."""
 
-_HEIGHTS: dict = {}  # (font, dpi) -> (ascent, descent, line gap) [px] of the font's line (_font_heights)
-_PICTURES: dict = {}  # (text, font, dpi, hinting, antialiased) -> (coverage [uint8 rows], descent, x and y offset) [px]
+_PICTURES: dict = {}  # (text, font, dpi, hinting, antialiased) -> (coverage [uint8 rows], x offset, descent) or None
+_INKED: dict = {}  # (picture's key, RGBA [0-255], quarter turns) -> the picture in that colour, turned, as RGBA
 _WHOLE = True
-"""Whether :class:`RememberingRenderer` draws texts from their pictures (off for good once the renderer's internals
-it uses refuse)."""
+"""Whether :class:`RememberingRenderer` draws texts from their pictures (off for good once the font's calls refuse)."""
 
 
 def remember_text(on: bool = True) -> bool:
@@ -81,10 +62,10 @@ def remember_text(on: bool = True) -> bool:
 
 
 def forget() -> None:
-    """Forget every text measured, every text's picture and every font's line metrics."""
+    """Forget every text measured, and every text's picture."""
     _MEASURED.clear()
     _PICTURES.clear()
-    _HEIGHTS.clear()
+    _INKED.clear()
 
 
 def new_canvas(fig):
@@ -114,62 +95,50 @@ def _keep(store: dict, key, value, limit: int = LIMIT):
     return value
 
 
-def _font_heights(prop, dpi: float) -> tuple:
-    """(ascent, descent, line gap) [px] of the line of ``prop``'s font at ``dpi``, as matplotlib 3.11's text layout
-    reads them (``Text._get_layout``: the font found as its renderers find it, the tables "OS/2", else "hhea", scaled
-    by the size over the font's units per em), found once per font and dpi; (None, None, None) where they cannot be
-    read so (matplotlib then reads them itself)."""
-    key = (_font_key(prop), dpi)
-    found = _HEIGHTS.get(key)
-    if found is None:
-        found = (None, None, None)
-        try:
-            font = get_font(fontManager._find_fonts_by_props(prop))
-            for table_name, gap, ascent, descent in (
-                ("OS/2", "sTypoLineGap", "sTypoAscender", "sTypoDescender"),
-                ("hhea", "lineGap", "ascent", "descent"),
-            ):
-                table = font.get_sfnt_table(table_name)
-                if table is None:
-                    continue
-                scale = 1 / font.get_sfnt_table("head")["unitsPerEm"] * prop.get_size_in_points() * dpi / 72
-                found = (table[ascent] * scale, -table[descent] * scale, table[gap] * scale)
-                break
-        except (AttributeError, TypeError, KeyError, OSError, RuntimeError):
-            pass
-        _keep(_HEIGHTS, key, found)
-    return found
-
-
 class RememberingRenderer(RendererAgg):
     """matplotlib's Agg renderer, with each text's measure found once for the process and each text drawn from one
-    picture of it (module docstring).  A text is laid out once for both: measured as matplotlib measures it (its
-    ``get_text_width_height_descent``: FreeType's ``set_text``, then the width, height and descent) and rendered from
-    the same layout, with the antialiasing texts are drawn with unless told otherwise."""
+    picture of it (module docstring): a text is laid out once for both, measured as matplotlib measures it (its
+    ``get_text_width_height_descent``: the font's ``set_text``, then the width, height and descent)."""
 
     def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
         global _WHOLE
+        quarter = round(angle / 90.0) % 4 if abs(angle / 90.0 - round(angle / 90.0)) < 1e-9 else None
         shaped = mtext is not None and any(
             getattr(mtext, name, lambda: None)() is not None for name in ("get_fontfeatures", "get_language")
         )
-        if ismath or shaped or not _WHOLE:  # mathematics, or a text asking HarfBuzz for features: matplotlib's way
+        if ismath or shaped or quarter not in (0, 1) or not _WHOLE:
             return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
         antialiased = bool(gc.get_antialiased())
+        key = (s, _font_key(prop), self.dpi, get_hinting_flag(), antialiased)
         try:
-            found = _PICTURES.get((s, _font_key(prop), self.dpi, get_hinting_flag(), antialiased))
-            if found is None:
-                found = self._lay_out(s, prop, antialiased)[1]
-            picture, descent, xo, yo = found
-            # The picture's corner at the nearest whole pixel: its offsets from the pen (along the baseline, and the
-            # descent and a pixel below it, as matplotlib <= 3.10 put it) turned with the text (y downwards)
-            cos, sin = math.cos(math.radians(angle)), math.sin(math.radians(angle))
-            below = yo + descent + 1.0
-            left = round(x + xo * cos + below * sin)
-            top = round(y - xo * sin + below * cos)
-            self._renderer.draw_text_image(picture, left, top, angle, gc)
-        except (AttributeError, TypeError):  # the internals differ in this matplotlib: its own way from now on
+            found = _PICTURES[key] if key in _PICTURES else self._lay_out(s, prop, antialiased)[1]
+        except (AttributeError, TypeError, ValueError, RuntimeError):  # the font's calls refuse: matplotlib's way
             _WHOLE = False
+            found = None
+        if found is None:  # (also a character the font lacks: matplotlib takes it from a fallback font)
             return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
+        coverage, xo, descent = found
+        rgba = gc.get_rgb()
+        alpha = gc.get_alpha() if len(rgba) == 3 or gc.get_forced_alpha() else rgba[3]
+        colour = tuple(int(round(255 * c)) for c in (*rgba[:3], alpha))
+        inked = _INKED.get((key, colour, quarter))
+        if inked is None:
+            inked = np.empty((*coverage.shape, 4), dtype=np.uint8)
+            inked[..., :3] = colour[:3]
+            inked[..., 3] = (coverage.astype(np.uint16) * colour[3] + 127) // 255
+            # turned as the text turns (counterclockwise), then bottom row first, as draw_image takes an image
+            inked = np.ascontiguousarray(np.rot90(inked, quarter)[::-1])
+            inked = _keep(_INKED, (key, colour, quarter), inked, PICTURES)
+        # The picture's bottom left corner at the nearest whole pixel: the pen's place moved along the baseline by
+        # the picture's offset and below it by the descent and a pixel (as matplotlib <= 3.10 put it), turned with
+        # the text (y downwards here); a quarter turn about that corner puts the picture's bottom left a picture's
+        # height to its left.  draw_image counts y upwards from the bottom.
+        below = descent + 1.0
+        if quarter == 0:
+            left, bottom = round(x + xo), round(y + below)
+        else:
+            left, bottom = round(x + below) - coverage.shape[0], round(y - xo)
+        self.draw_image(gc, left, self.height - bottom, inked)
 
     def get_text_width_height_descent(self, s, prop, ismath):
         global _WHOLE
@@ -180,30 +149,33 @@ class RememberingRenderer(RendererAgg):
         if found is None and _WHOLE:
             try:
                 found = self._lay_out(s, prop, bool(mpl.rcParams["text.antialiased"]))[0]
-            except (AttributeError, TypeError):  # as in draw_text
+            except (AttributeError, TypeError, ValueError, RuntimeError):  # as in draw_text
                 _WHOLE = False
         if found is None:
             found = _keep(_MEASURED, key, super().get_text_width_height_descent(s, prop, ismath))
         return found
 
-    def _get_font_height_metrics(self, prop):
-        # asked by matplotlib >= 3.11's text layout (module docstring); the figure's dpi is this renderer's
-        return _font_heights(prop, self.dpi)
-
-    def _lay_out(self, s, prop, antialiased: bool) -> tuple[tuple, tuple]:
-        """Lay ``s`` out once: keep its measure (width, height, descent [px], as matplotlib's
-        ``get_text_width_height_descent`` finds them) and its picture drawn ``antialiased`` (coverage, descent and
-        the picture's offsets from the pen [px]); both returned."""
-        font = self._prepare_font(prop)
+    def _lay_out(self, s, prop, antialiased: bool) -> tuple[tuple | None, tuple | None]:
+        """Lay ``s`` out once with ``prop``'s font (matplotlib's public ``findfont`` and ``get_font``, set to the
+        size as matplotlib's renderer sets it): keep its measure (width, height, descent [px]) and its picture
+        drawn ``antialiased`` (coverage, the picture's offset along the baseline and the descent [px]); both
+        returned.  (None, None) where the font lacks one of the characters (nothing kept: matplotlib's own way
+        measures and draws the text, with its fallback fonts)."""
+        key = (s, _font_key(prop), self.dpi, get_hinting_flag())
+        font = get_font(findfont(prop))
+        if any(font.get_char_index(ord(c)) == 0 for c in s if c not in "\n\r"):
+            _keep(_PICTURES, (*key, antialiased), None, PICTURES)
+            return None, None
+        font.clear()
+        font.set_size(prop.get_size_in_points(), self.dpi)
         font.set_text(s, 0.0, flags=get_hinting_flag())
         w, h = font.get_width_height()  # of the unturned text, in 64ths of a pixel
         descent = font.get_descent() / 64.0
-        measure = _keep(_MEASURED, (s, _font_key(prop), self.dpi, get_hinting_flag()), (w / 64.0, h / 64.0, descent))
+        measure = _keep(_MEASURED, key, (w / 64.0, h / 64.0, descent))
         font.draw_glyphs_to_bitmap(antialiased=antialiased)
-        xo, yo = font.get_bitmap_offset()
-        picture = np.array(font.get_image(), dtype=np.uint8)  # a copy: the font's buffer is drawn over next
-        key = (s, _font_key(prop), self.dpi, get_hinting_flag(), antialiased)
-        return measure, _keep(_PICTURES, key, (picture, descent, xo / 64.0, yo / 64.0), PICTURES)
+        xo, _ = font.get_bitmap_offset()
+        coverage = np.array(font.get_image(), dtype=np.uint8)  # a copy: the font's buffer is drawn over next
+        return measure, _keep(_PICTURES, (*key, antialiased), (coverage, xo / 64.0, descent), PICTURES)
 
 
 class RememberingCanvas(FigureCanvasAgg):
@@ -230,11 +202,6 @@ class RememberingSVGRenderer(RendererSVG):
         if found is None:
             found = _keep(_MEASURED, key, super().get_text_width_height_descent(s, prop, ismath))
         return found
-
-    def _get_font_height_metrics(self, prop):
-        # asked by matplotlib >= 3.11's text layout (module docstring); :class:`FigureCanvas` draws with the figure at
-        # 72 dpi, one unit a point, as matplotlib's SVG writer does
-        return _font_heights(prop, 72.0)
 
 
 class FigureCanvas(FigureCanvasSVG):
