@@ -105,6 +105,27 @@ def test_an_svg_holds_the_skys_cells_at_their_own_resolution(results):
     plt.close(fig)
 
 
+def test_an_svg_leaves_other_image_kinds_as_they_are():
+    # Only a plain image (imshow's) drawn cell for cell is written at its own resolution (drawing.save_figure); an
+    # image of another kind (a NonUniformImage, which takes no "none") is written as matplotlib writes it, and every
+    # image's interpolation is as it was after.
+    import numpy as np
+    from matplotlib.figure import Figure
+    from matplotlib.image import NonUniformImage
+
+    from snrgain.outputs import drawing
+
+    fig = Figure(figsize=(4.0, 3.0))
+    ax = fig.add_subplot()
+    plain = ax.imshow(np.arange(12.0).reshape(3, 4), interpolation="nearest")
+    other = NonUniformImage(ax, interpolation="nearest", extent=(0, 4, 0, 3))
+    other.set_data(np.arange(4.0), np.arange(3.0), np.arange(12.0).reshape(3, 4))
+    ax.add_image(other)
+    svg = drawing.figure_bytes(fig, "svg", bbox_inches="tight").decode()
+    assert svg.count("image-rendering:pixelated") == 1
+    assert plain.get_interpolation() == "nearest" and other.get_interpolation() == "nearest"
+
+
 def test_snr_over_hours_with_decile_bands(summer, tmp_path):
     fig = plots.snr_over_hours(summer)
     assert len(fig.axes) == len(summer.targets)  # one panel per target
@@ -649,6 +670,7 @@ def test_the_remembering_canvas_draws_what_matplotlibs_draws(results):
                     assert ink[0] == pytest.approx(ink[1], rel=2e-3)
                 assert drawn[2] == drawn[0]  # the second azimuth pattern: every text's picture read back
                 assert canvas._MEASURED and canvas._PICTURES
+                assert len(canvas._INKED) >= 20  # the figures' texts drawn from their pictures
                 assert canvas.svg_backend() == canvas.SVG_BACKEND
                 canvas.forget()
                 assert not canvas._PICTURES
@@ -710,6 +732,10 @@ def test_a_text_drawn_from_its_picture_is_matplotlibs_text(angle, size):
             grid = np.indices(ours.shape)
             centres = [np.array([(g * ink).sum() / ink.sum() for g in grid]) for ink in (ours, theirs)]
             assert np.hypot(*(centres[0] - centres[1])) < 1.3, (text, centres)
+            if angle % 90 == 0:  # drawn from its picture, turned as the text is
+                assert any(key[0][0] == text and key[2] == round(angle / 90) % 4 for key in canvas._INKED), text
+            else:
+                assert not any(key[0][0] == text for key in canvas._INKED), text
             again, _ = ink_of(canvas.RememberingCanvas, text)  # from the picture kept
             assert np.array_equal(again, ours)
     finally:

@@ -333,6 +333,15 @@ def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp
     plain = runner.invoke(cli, ["layout", str(unfed), "--format", "json"])
     assert plain.exit_code == 0, plain.output
     assert got["layouts"] == json.loads(plain.stdout)["layouts"]
+    # the plan still draws the line, from where the layout puts the antenna to the station entry
+    from snrgain.tools.layout import plan_data
+
+    data, _, base = read_source(src)
+    problem = Problem(load(data, base_dir=base), data, base_dir=base)
+    plan = plan_data(problem, problem.search(keep=1)[0])
+    runs = dict(plan["feed_lines"])
+    placed = {c["name"]: c["position_m"] for c in plan["layout"]["candidates"]}
+    assert runs["Beverage Europe"] == [pytest.approx(tuple(placed["Beverage Europe"])), (30.0, 12.0)]
     best = {c["name"]: c for c in got["layouts"][0]["candidates"]}
     rank = runner.invoke(cli, ["rank", str(out), "--format", "json"])
     assert rank.exit_code == 0, rank.output

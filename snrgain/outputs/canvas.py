@@ -17,8 +17,14 @@ up to 3.10), keeps its measure and its picture, and puts the picture down with t
 ``draw_image`` at the nearest whole pixel wherever the text comes again, level or turned a quarter turn (a y axis'
 label).  The letters then stand within about a pixel of where matplotlib 3.11 puts them (tested: the same measure,
 the same ink, its box within a pixel on every side).  A text turned otherwise, set in mathematics, asking for font
-features, or with a character its font lacks (matplotlib would take it from a fallback font) is drawn by
-matplotlib's own ``draw_text``; so is every text where the font's calls refuse.
+features, clipped (``draw_image`` clips a pixel further than ``draw_text``), or with a character its font lacks
+(matplotlib would take it from a fallback font) is drawn by matplotlib's own ``draw_text``; so is every text where
+the font's calls refuse.
+
+The measures and the pictures depend on the font settings in force when they were found (the families, the hinting
+factor), so the canvas is used only where those are fixed: in the figures' processes of the command line
+(:func:`remember_text`, set by :mod:`snrgain.outputs.drawing`).  Elsewhere (a notebook, where a user may change the
+fonts between two figures) :func:`new_canvas` gives matplotlib's own canvas.
 """
 
 from __future__ import annotations
@@ -106,7 +112,8 @@ class RememberingRenderer(RendererAgg):
         shaped = mtext is not None and any(
             getattr(mtext, name, lambda: None)() is not None for name in ("get_fontfeatures", "get_language")
         )
-        if ismath or shaped or quarter not in (0, 1) or not _WHOLE:
+        clipped = gc.get_clip_rectangle() is not None or gc.get_clip_path() != (None, None)
+        if ismath or shaped or clipped or quarter not in (0, 1) or not _WHOLE:
             return super().draw_text(gc, x, y, s, prop, angle, ismath, mtext)
         antialiased = bool(gc.get_antialiased())
         key = (s, _font_key(prop), self.dpi, get_hinting_flag(), antialiased)

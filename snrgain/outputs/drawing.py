@@ -113,14 +113,16 @@ def save_figure(fig, target, fmt: str, *, svg_text: bool = False, **savefig) -> 
         with mpl.rc_context({"svg.fonttype": "none"}):
             save_figure(fig, target, fmt, **savefig)
         return
-    cells = [im for ax in fig.axes for im in ax.images if im.get_interpolation() == "nearest"] if fmt == "svg" else []
+    cells = [] if fmt != "svg" else [im for ax in fig.axes for im in ax.images if _cell_image(im)]
     if cells:
-        for im in cells:
-            im.set_interpolation("none")
+        switched = []
         try:
+            for im in cells:
+                im.set_interpolation("none")
+                switched.append(im)
             save_figure(fig, target, fmt, **savefig)
         finally:
-            for im in cells:
+            for im in switched:
                 im.set_interpolation("nearest")
         return
     if fmt == "svg" and savefig.get("backend") is None and svg_backend():
@@ -146,6 +148,14 @@ def save_figure(fig, target, fmt: str, *, svg_text: bool = False, **savefig) -> 
     finally:
         if engine is not None:
             fig.set_layout_engine(engine)
+
+
+def _cell_image(im) -> bool:
+    """Whether ``im`` is a plain image (imshow's) drawn cell for cell ("nearest"), which an SVG can carry at its own
+    resolution (:func:`save_figure`); other image kinds keep their own interpolation."""
+    from matplotlib.image import AxesImage
+
+    return type(im) is AxesImage and im.get_interpolation() == "nearest"
 
 
 MARGIN_INCHES = 1.0

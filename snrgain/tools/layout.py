@@ -148,6 +148,8 @@ class Problem:
         # depend on where the antenna stands): its designs are scored without it.  The scenario's lines are found
         # by the antenna's name, which every design keeps, so the placeable ones are taken out of it.
         moved = {sc.candidates[k].name for ks in self.members for k in ks}
+        self.feed_lines = sc.feed_lines
+        """Every antenna's feed line, the placeable ones' too: the plan draws them (:func:`plan_data`)."""
         if any(name in moved for name in sc.feed_lines):
             sc = replace(sc, feed_lines={n: fl for n, fl in sc.feed_lines.items() if n not in moved})
         sc = self.sc = pipeline.resolve_sources(sc)
@@ -866,7 +868,9 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
             gains[a.name] = f"{note}, in its best state"
             e, n = a.params.position
             designs.append(Design(a.name, e, n, _bearing_of(a), getattr(a, "length_m", None) if a.long_wire else None))
-    plan = plan_of(problem.sc, data=problem.data, designs=tuple(designs), gains=gains)
+    # every feed line drawn, the placed candidates' from where the layout puts them (not scored: Problem)
+    sc = replace(problem.sc, feed_lines=problem.feed_lines)
+    plan = plan_of(sc, data=problem.data, designs=tuple(designs), gains=gains)
     plan["layout"] = as_dict([layout])["layouts"][0]
     return plan
 
