@@ -366,6 +366,15 @@ def per_m(unit: str) -> float:
     return FT_PER_M if unit == "ft" else 1.0
 
 
+def signed_text(value: float, decimals: int = 1) -> str:
+    """``value`` with its sign to ``decimals`` places ("+1.2", "-0.3" dB): one that rounds to zero reads "+0.0", never
+    "-0.0" (a small negative change shown as a negative zero reads as a loss that is not there)."""
+    out = f"{float(value):+.{decimals}f}"
+    if out.startswith("-") and float(out) == 0.0:
+        out = "+" + out[1:]
+    return out
+
+
 def length_text(x_m: float, unit: str = "m", decimals: int = 1) -> str:
     """A length [m] in the unit shown: ``length_text(8.8392, "ft", 0)`` -> "29 ft"."""
     return f"{x_m * per_m(unit):.{decimals}f} {unit}"

@@ -140,3 +140,18 @@ def test_a_value_that_rounds_to_zero_reads_without_a_minus_sign():
     assert [_f(x) for x in (-0.004, -0.049, 0.0, 0.04)] == ["+0.0"] * 4
     assert (_f(-0.05), _f(-1.26), _f(0.06)) == ("-0.1", "-1.3", "+0.1")
     assert _f(-0.004, "{:.1f}") == "0.0" and _f(float("nan")) == "-"
+
+
+def test_signed_values_in_sentences_and_figures_read_without_a_minus_zero():
+    # the same rule for the dB in the plan's sentences, the report, the notices and the ranking chart's labels
+    # (snrgain.units.signed_text): the demo's short receive vertical's -0.004 dB read "-0.0" on the chart
+    from snrgain.units import signed_text
+
+    assert [signed_text(x) for x in (-0.004, -0.049, 0.0, -0.0, 0.04)] == ["+0.0"] * 5
+    assert (signed_text(-0.05), signed_text(-1.26), signed_text(0.06), signed_text(3.14159, 2)) == (
+        "-0.1",
+        "-1.3",
+        "+0.1",
+        "+3.14",
+    )
+    assert signed_text(-0.004, 0) == "+0" and signed_text(float("-inf")) == "-inf"

@@ -19,6 +19,7 @@ from snrgain.decide.plan import TIE_DB
 from snrgain.model.notices import Notice  # re-exported: the documented path snrgain.model.results.Notice
 from snrgain.records import record
 from snrgain.sky.noise import SkySeries
+from snrgain.units import signed_text
 
 SCHEMA_VERSION = "3"
 
@@ -86,7 +87,7 @@ class AntennaResult:
     """The state's label within its group, e.g. "NE (45 deg)"; None for an antenna that is not switched."""
 
     def __repr__(self) -> str:
-        per = ", ".join(f"{m:+.1f}" for m in self.snr_gain_median_db)
+        per = ", ".join(f"{signed_text(m)}" for m in self.snr_gain_median_db)
         return f"AntennaResult({self.name!r}, {self.family}, median SNR gain per target [{per}] dB)"
 
 
@@ -208,14 +209,14 @@ class Results:
 
     def __repr__(self) -> str:
         best = "; ".join(
-            f"{t.name}: {t.best!r} {self.antenna(t.best).snr_gain_median_db[i]:+.1f} dB"
+            f"{t.name}: {t.best!r} {signed_text(self.antenna(t.best).snr_gain_median_db[i])} dB"
             for i, t in enumerate(self.target_results)
         )
         head = (
             f"Results({self.site.get('name')!r}, {self.freq_hz / 1e6:g} MHz, {len(self.candidates)} candidates; {best}"
         )
         if self.plan is not None:
-            head += f"; plan: {len(self.plan.antennas)} antenna(s), {self.plan.gain_db:+.1f} dB"
+            head += f"; plan: {len(self.plan.antennas)} antenna(s), {signed_text(self.plan.gain_db)} dB"
         return head + (f"; {len(self.notices)} notice(s))" if self.notices else ")")
 
     def to_xarray(self):

@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.notices import Notice
 from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
-from snrgain.units import length_text, per_m
+from snrgain.units import length_text, per_m, signed_text
 
 
 def _upper_bound(v) -> str:
@@ -97,8 +97,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{n.antenna}: the transmitting vertical {length_text(v['distance_m'], unit, 0)} away, {st}, costs "
             f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
             f"{v[f'{st}_front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward "
-            f"gain {v[f'{st}_forward_gain_change_db']:+.1f} dB. {other.capitalize()}: RDF "
-            f"{v[f'{other}_rdf_change_db']:+.1f} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
+            f"gain {signed_text(v[st + '_forward_gain_change_db'])} dB. {other.capitalize()}: RDF "
+            f"{signed_text(v[other + '_rdf_change_db'])} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
             + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
         )
     if n.code == "feed-line-ground-assumed":
@@ -115,18 +115,17 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
         return (
             f"{n.antenna}: its feed line's shield picks up noise and costs {v['cost_db']:.1f} dB of SNR gain (its "
-            f"share of the noise {v['noise_share_db']:+.1f} dB); {choke}, or an isolation transformer with a choke; "
-            "bond the "
-            "separate grounds as the local electrical code requires, and ground the shield where it enters the house "
-            "against lightning"
+            f"share of the noise {signed_text(v['noise_share_db'])} dB); {choke}, or an isolation transformer with a "
+            "choke; bond the separate grounds as the local electrical code requires, and ground the shield where it "
+            "enters the house against lightning"
         )
     if n.code == "structure-cost":
         return (
             f"{n.antenna}: the structure {v['structure']!r} {length_text(v['distance_m'], unit, 0)} away costs "
             f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
             f"{v['front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward gain "
-            f"{v['forward_gain_change_db']:+.1f} dB: move the antenna, or break the structure's resonance (insulate "
-            "its foot or change what loads it) where that is safe and its lightning protection allows"
+            f"{signed_text(v['forward_gain_change_db'])} dB: move the antenna, or break the structure's resonance "
+            "(insulate its foot or change what loads it) where that is safe and its lightning protection allows"
         )
     if n.code == "structure-not-computed":
         return (
@@ -211,6 +210,6 @@ def plan_not_best_text(target: str, why: dict) -> str:
         else "building it adds less than 0.1 dB to the plan as a whole"
     )
     return (
-        f"{target}: the best, {why['best']} ({why['best_db']:+.1f} dB), is not in the plan because {reason}; "
-        f"{why['served_by']} serves it ({why['served_db']:+.1f} dB)."
+        f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because {reason}; "
+        f"{why['served_by']} serves it ({signed_text(why['served_db'])} dB)."
     )

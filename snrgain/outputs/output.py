@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
-from snrgain.units import length_both_text, length_text, lengths_text, s_units
+from snrgain.units import length_both_text, length_text, lengths_text, s_units, signed_text
 
 
 def to_json(results) -> str:
@@ -63,7 +63,7 @@ def band_plan_text(br):
         out.append(f"{limit}: no candidate adds {0.1:g} dB or more on any band; keep {ref}.\n")
         return out
     out.append(
-        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {ref} alone (each band and target's "
+        f"{limit}: build {len(p.antennas)}, worth {signed_text(p.gain_db)} dB over {ref} alone (each band and target's "
         "median SNR gain on the antenna that serves it, averaged as power ratios, every band counting alike)\n"
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
@@ -71,10 +71,10 @@ def band_plan_text(br):
             {br.columns[c][0] for c, rows in p.by_target.items() for srv in rows if name in (srv.antenna, srv.group)},
             key=[b for b, _ in br.bands].index,
         )
-        out.append(f"  {k + 1}. {name}: adds {added:+.1f} dB; serves {', '.join(bands)}\n")
+        out.append(f"  {k + 1}. {name}: adds {signed_text(added)} dB; serves {', '.join(bands)}\n")
     for c, rows in sorted(p.by_target.items()):
         band, target = br.columns[c]
-        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
+        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({signed_text(s.snr_gain_db)} dB)" for s in rows)
         out.append(f"  {band}, {target}: {served}\n")
     for c, why in sorted(p.not_best.items()):
         band, target = br.columns[c]
@@ -163,7 +163,7 @@ def _header(r: Results):
             noise_bits.append(f"{name}: Fa {finite.min():.1f} to {finite.max():.1f} dB{some_screened}")
     head.append("Noise on P.372's reference monopole: " + "; ".join(noise_bits) + "\n")
     stages = ", ".join(
-        f"{st['name']} {st['gain_db']:+.1f} dB"
+        f"{st['name']} {signed_text(st['gain_db'])} dB"
         for st in r.receiver["chain_stages"][:-1]
         if abs(st["gain_db"]) > 1e-9 or st["noise_figure_db"] > 1e-9
     )
@@ -270,7 +270,7 @@ def target_table(r: Results, i: int, lab=None):
         )
     else:
         verdict.append(
-            f"Toward {t['name']} no candidate beats {reference} (best: {best}, {med:+.1f} dB).", style="bold"
+            f"Toward {t['name']} no candidate beats {reference} (best: {best}, {signed_text(med)} dB).", style="bold"
         )
     from rich.console import Group
 
@@ -341,12 +341,13 @@ def plan_text(r: Results):
         out.append(f"{limit}: no candidate adds {0.1:g} dB or more; keep {r.reference.name}.\n")
         return out
     out.append(
-        f"{limit}: build {len(p.antennas)}, worth {p.gain_db:+.1f} dB over {r.reference.name} alone ({PLAN_WORTH})\n"
+        f"{limit}: build {len(p.antennas)}, worth {signed_text(p.gain_db)} dB over {r.reference.name} alone "
+        f"({PLAN_WORTH})\n"
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
-        out.append(f"  {k + 1}. {name}{switched_text(r, name)}: adds {added:+.1f} dB{also_build(r, k)}\n")
+        out.append(f"  {k + 1}. {name}{switched_text(r, name)}: adds {signed_text(added)} dB{also_build(r, k)}\n")
     for t, rows in sorted(p.by_target.items()):
-        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({s.snr_gain_db:+.1f} dB)" for s in rows)
+        served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({signed_text(s.snr_gain_db)} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
     for t, why in sorted(p.not_best.items()):
         out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why)}\n")
@@ -441,7 +442,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             first, second = b["antennas"]
             bits.append(
                 f"add {second} to {first} through a phase and amplitude unit: {second} lagging "
-                f"{st['phase_lag_deg']:.0f} deg at {st['amplitude_db']:+.1f} dB"
+                f"{st['phase_lag_deg']:.0f} deg at {signed_text(st['amplitude_db'])} dB"
             )
             if "loss_with_error_db" in st:
                 bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
@@ -484,7 +485,7 @@ def feed_line_text(fl: dict, unit: str) -> str:
     )
     return (
         f"feed line {length_text(fl['length_m'], unit, 0)} {run} ({iso}{choke}; station ground "
-        f"{fl['station_ground_ohm']:g} ohm): {fl['noise_share_db']:+.1f} dB of the noise, {effect}; {quiet}; "
+        f"{fl['station_ground_ohm']:g} ohm): {signed_text(fl['noise_share_db'])} dB of the noise, {effect}; {quiet}; "
         "ground the shield where it enters and bond the grounds per the local electrical code"
     )
 

@@ -32,6 +32,7 @@ import numpy as np
 
 from snrgain.model.labelled import QUANTILES
 from snrgain.outputs.style import SOURCE_MARKER, antenna_looks, looks_of, target_looks, unwrapped
+from snrgain.units import signed_text
 
 FLOOR_SPAN_DB = 40.0
 """Polar plots show this many dB below the strongest trace."""
@@ -808,7 +809,7 @@ def ranking_chart(results, *, ax=None):
             axes[0].text(
                 max(top, 0),
                 yi,
-                f"  {v:+.1f}" + ("  best" if k == best else ""),
+                f"  {signed_text(v)}" + ("  best" if k == best else ""),
                 va="center",
                 fontsize=7,
                 fontweight="bold" if k == best else "normal",

@@ -16,7 +16,7 @@ import numpy as np
 from snrgain.outputs import plots
 from snrgain.outputs.output import ground_text
 from snrgain.outputs.style import listening_order, looks_of
-from snrgain.units import s_units
+from snrgain.units import s_units, signed_text
 
 SAFETY = [
     "Keep every wire, mast and support well clear of power lines: farther away than it could reach if it fell. "
@@ -214,14 +214,14 @@ def _ranking(r) -> str:
         if best.snr_gain_median_db[i] > 0:
             out.append(
                 f"<p><b>Best toward {_e(t['name'])}: {_e(tr.best)}</b>, "
-                f"{best.snr_gain_median_db[i]:+.1f} dB over {_e(r.reference.name)} (median; "
-                f"{best.snr_gain_p10_db[i]:+.1f} to {best.snr_gain_p90_db[i]:+.1f} dB), "
+                f"{signed_text(best.snr_gain_median_db[i])} dB over {_e(r.reference.name)} (median; "
+                f"{signed_text(best.snr_gain_p10_db[i])} to {signed_text(best.snr_gain_p90_db[i])} dB), "
                 f"{tr.margin_db:.1f} dB ahead of {_e(tr.runner_up)}.</p>"
             )
         else:
             out.append(
                 f"<p><b>Toward {_e(t['name'])} no candidate beats {_e(r.reference.name)}</b> "
-                f"(best: {_e(tr.best)}, {best.snr_gain_median_db[i]:+.1f} dB).</p>"
+                f"(best: {_e(tr.best)}, {signed_text(best.snr_gain_median_db[i])} dB).</p>"
             )
     out.append(
         "<p class='note'>SNR gain over the reference antenna toward each target with this site's noise sky and the "
@@ -257,12 +257,12 @@ def _plan(r) -> str:
     if not p.antennas:
         return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
     out = [
-        f"<p>Build {len(p.antennas)}, worth <b>{p.gain_db:+.1f} dB</b> over {_e(r.reference.name)} alone "
+        f"<p>Build {len(p.antennas)}, worth <b>{signed_text(p.gain_db)} dB</b> over {_e(r.reference.name)} alone "
         f"({PLAN_WORTH}), in this order:</p><ol>"
     ]
 
     out += [
-        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {a:+.1f} dB{_e(also_build(r, k))}</li>"
+        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {signed_text(a)} dB{_e(also_build(r, k))}</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
     ]
     out.append(
