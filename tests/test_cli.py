@@ -173,3 +173,30 @@ def test_rank_table_prints_names_as_written(runner, tmp_path, minimal_text):
         assert res.exit_code == 0, res.output
         text = res.stdout if not args else (tmp_path / "t.txt").read_text(encoding="utf-8")
         assert "SNR gain over TX [bold]main[/bold] :star:" in text
+
+
+def test_a_library_warning_is_one_line_and_a_missing_glyph_is_said_plainly():
+    # snrgain.cli.main sets warnings.formatwarning for the command's processes (the figures' too): one line, no
+    # source line; matplotlib's missing glyph (a name in a script the figures' font lacks) in the builder's words
+    import warnings
+
+    from snrgain.cli.main import _warning_line
+
+    line = _warning_line(
+        UserWarning("Glyph 28450 (\\N{CJK UNIFIED IDEOGRAPH-6F22}) missing from font(s) DejaVu Sans."),
+        UserWarning,
+        "/somewhere/canvas.py",
+        120,
+        "    found = ...",
+    )
+    assert line.startswith("warning: the figures' font (DejaVu Sans) has no letter '\u6f22' (U+6F22)")
+    assert line.endswith("\n") and line.count("\n") == 1 and "canvas.py" not in line
+    assert _warning_line(UserWarning("something odd"), UserWarning, "x.py", 1) == "warning: something odd\n"
+    with warnings.catch_warnings():
+        warnings.simplefilter("always")
+        old = warnings.formatwarning
+        try:
+            warnings.formatwarning = _warning_line
+            assert warnings.formatwarning("plain", UserWarning, "x.py", 3) == "warning: plain\n"
+        finally:
+            warnings.formatwarning = old

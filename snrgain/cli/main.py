@@ -135,6 +135,22 @@ def _stopped(signum: int) -> None:
     sys.exit(128 + int(signum))
 
 
+def _warning_line(message, category, filename, lineno, line=None) -> str:
+    """A library's warning as the command line prints it: one line, without the source line.  matplotlib's missing
+    glyph (a name in a script the figures' font lacks) is said in the builder's words."""
+    import re
+
+    text = str(message)
+    glyph = re.match(r"Glyph (\d+) \((.*)\) missing from font\(s\) (.+?)\.?$", text)
+    if glyph:
+        char = chr(int(glyph.group(1)))
+        return (
+            f"warning: the figures' font ({glyph.group(3)}) has no letter {char!r} (U+{ord(char):04X}); it is drawn "
+            "as an empty box. Use letters the font has in the names, or install a font that has them\n"
+        )
+    return f"warning: {text}\n"
+
+
 def main() -> None:
     """The ``snrgain`` command.
 
@@ -154,6 +170,9 @@ def main() -> None:
         try:
             # Floating-point warnings name source lines, which say nothing to a user; results carry their own checks.
             warnings.filterwarnings("ignore", category=RuntimeWarning)
+            # Any other warning a library gives (the figures' processes inherit this) as one line, without the
+            # source line it came from
+            warnings.formatwarning = _warning_line
             _interrupt_on_signals()
             # The command line owns its process: keep freed memory for the next array (snrgain.allocator).
             from snrgain.allocator import tune
