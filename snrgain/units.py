@@ -366,13 +366,19 @@ def per_m(unit: str) -> float:
     return FT_PER_M if unit == "ft" else 1.0
 
 
-def signed_text(value: float, decimals: int = 1) -> str:
-    """``value`` with its sign to ``decimals`` places ("+1.2", "-0.3" dB): one that rounds to zero reads "+0.0", never
-    "-0.0" (a small negative change shown as a negative zero reads as a loss that is not there)."""
-    out = f"{float(value):+.{decimals}f}"
+def number_text(value: float, fmt: str) -> str:
+    """``fmt.format(value)`` for a number format (``"{:+.1f}"``), except that a value that rounds to zero reads as
+    zero does, never "-0.0" (a small negative change shown as a negative zero reads as a loss that is not there)."""
+    out = fmt.format(float(value))
     if out.startswith("-") and float(out) == 0.0:
-        out = "+" + out[1:]
+        out = fmt.format(0.0)
     return out
+
+
+def signed_text(value: float, decimals: int = 1) -> str:
+    """``value`` with its sign to ``decimals`` places ("+1.2", "-0.3" dB; :func:`number_text`: "+0.0", never
+    "-0.0")."""
+    return number_text(value, f"{{:+.{decimals}f}}")
 
 
 def length_text(x_m: float, unit: str = "m", decimals: int = 1) -> str:

@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
-from snrgain.units import length_both_text, length_text, lengths_text, s_units, signed_text
+from snrgain.units import length_both_text, length_text, lengths_text, number_text, s_units, signed_text
 
 
 def to_json(results) -> str:
@@ -103,10 +103,7 @@ def _f(x, fmt="{:+.1f}"):
         return "-"
     if np.isinf(x):
         return "inf" if x > 0 else "-inf"
-    out = fmt.format(x)
-    if out.startswith("-") and float(out) == 0.0:  # a small negative that rounds to zero reads 0.0, not -0.0
-        out = fmt.format(0.0)
-    return out
+    return number_text(x, fmt)  # a small negative that rounds to zero reads 0.0, not -0.0
 
 
 def _preamp_cell(limited: bool, gain_db) -> str:

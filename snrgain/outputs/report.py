@@ -16,7 +16,7 @@ import numpy as np
 from snrgain.outputs import plots
 from snrgain.outputs.output import ground_text
 from snrgain.outputs.style import listening_order, looks_of
-from snrgain.units import s_units, signed_text
+from snrgain.units import number_text, s_units, signed_text
 
 SAFETY = [
     "Keep every wire, mast and support well clear of power lines: farther away than it could reach if it fell. "
@@ -102,7 +102,7 @@ def _f(x, fmt="{:+.1f}") -> str:
     x = float(x)
     if not np.isfinite(x):
         return "&ndash;"
-    return fmt.format(x)
+    return number_text(x, fmt)  # as the terminal's tables: 0.0, not -0.0
 
 
 def _summary(r) -> str:
