@@ -353,6 +353,27 @@ def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp
     assert nominal[("Beverage Pacific", pac["target"])] == pytest.approx(pac["snr_gain_db"], abs=0.01)
 
 
+def test_a_placed_feed_line_through_the_users_clearance_is_said_as_rank_says_it(tmp_path):
+    # the placed Beverage's feed line runs from where the layout puts it to a station entry 7 m from the transmitting
+    # vertical, inside the 20 m clearance the file gives: layout says so for its best layout, and rank of the written
+    # layout gives the same notice with the same distance
+    text = (DATA / FILES[0]).read_text(encoding="utf-8")
+    marker, lot = 'place = { bearing = ["30 deg", "60 deg"]', "lot = [[-40, -40], [210, -40], [210, 280], [-40, 280]]"
+    assert marker in text and lot in text
+    text = text.replace(marker, 'position = [0, 100]\nfeed_line = { to = [5, 5], height = "1 m" }\n' + marker, 1)
+    src, out = tmp_path / "fed.toml", tmp_path / "placed.toml"
+    src.write_text(text.replace(lot, lot + '\ntx_clearance = "20 m"', 1), encoding="utf-8")
+    runner = CliRunner()
+    res = runner.invoke(cli, ["layout", str(src), "--write", str(out), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    said = [n for n in json.loads(res.stdout)["notes"] if "passes within" in n]
+    assert len(said) == 1 and said[0].startswith("layout 1: Beverage Europe: its feed line passes within 7 m")
+    rank = runner.invoke(cli, ["rank", str(out), "--format", "json"])
+    assert rank.exit_code == 0, rank.output
+    near = [w for w in json.loads(rank.stdout)["warnings"] if "passes within" in w]
+    assert near == [said[0].removeprefix("layout 1: ")]  # the written place is rounded to 0.1 m: the same 7 m
+
+
 def test_the_combinations_worths_at_once_equal_each_layouts():
     from snrgain.tools.layout import Design, Layout, _worths_db
 

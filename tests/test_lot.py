@@ -107,6 +107,25 @@ def test_tx_clearance_is_the_users():
     assert ("near-tx-vertical", "x") not in _codes(BASE.format(extra_site='tx_clearance = "20 m"', candidates=c))
 
 
+def test_a_feed_line_through_the_users_clearance_is_said():
+    """A Beverage's feed line run from its feed point 150 m out to a station entry 7 m from the transmitting vertical:
+    inside a 40 m clearance the user gives it is said (a receive line in the vertical's strongest field while
+    transmitting), with its distance; without a given clearance, or with one the run keeps, nothing is said."""
+    text = BASE.replace("position = [150, 0]\n", 'position = [150, 0]\nfeed_line = {{ to = [5, 5], height = "1 m" }}\n')
+    r = snrgain.evaluate(text.format(extra_site='tx_clearance = "40 m"', candidates=""))
+    near = [n for n in r.notices if n.code == "feed-line-near-tx-vertical"]
+    assert [n.antenna for n in near] == ["inside"]
+    assert near[0].values["distance_m"] == pytest.approx(50**0.5, abs=1e-9)
+    assert near[0].values["clearance_m"] == 40.0
+    from snrgain.outputs.messages import notice_text
+
+    words = notice_text(near[0])
+    assert "inside: its feed line passes within 7 m" in words and "keep 40 m" in words
+    for site in ("", 'tx_clearance = "5 m"'):
+        r = snrgain.evaluate(text.format(extra_site=site, candidates=""))
+        assert not [n for n in r.notices if n.code == "feed-line-near-tx-vertical"]
+
+
 @pytest.mark.parametrize(
     "bad, message",
     [

@@ -51,6 +51,7 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     driving ground rods, and mark wires near the ground: they trip people and animals.
     """
     from snrgain.cli.options import progress
+    from snrgain.outputs.messages import notice_text
     from snrgain.scenario import load, read_source
     from snrgain.tools import layout as lay
 
@@ -71,9 +72,10 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
         "write the layout (--write) and rank it to see what the feed line costs there"
         for name in unscored
     ]
+    best = layouts[0]
+    notes += [f"layout 1: {notice_text(n, sc.site.length_unit)}" for n in lay.placed_feed_line_notices(problem, best)]
     if notes:
         out["notes"] = notes
-    best = layouts[0]
     if plot is not None:
         from snrgain.outputs import plots
 

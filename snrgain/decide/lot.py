@@ -16,7 +16,9 @@ the transmitting vertical (the reference, when it is a vertical, at its
 position or else at the plan's origin when the site has a lot: the user's
 clearance for every antenna; without one, half a wavelength only for the
 antennas whose coupling to the vertical is not computed, the others' cost
-being computed by snrgain.model.scatter), and a
+being computed by snrgain.model.scatter), a candidate's feed line whose run
+passes within the clearance the user gives (while transmitting its shield
+sits in the vertical's strongest field), and a
 placed noise source inside a keep-out area (a house is where sources often
 are: it is said, not refused), and plan points that look like a latitude and
 longitude written as metres (``[51.4012, -0.1203]`` at a site at 51.40 N,
@@ -213,12 +215,37 @@ def site_notices(sc) -> list[Notice]:
                     out.append(
                         Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear, "given": given})
                     )
+        out.extend(feed_line_notices(sc, {n: (fl.start_m, fl.end_m) for n, fl in sc.feed_lines.items()}))
     for src in sc.noise.local:
         if src.position_m is not None:
             for name, area in keep:
                 if area.covers(Point(*src.position_m)):
                     out.append(Notice("source-in-keep-out", None, {"source": src.name, "area": name}))
     out.extend(latlon_like_notices(sc))
+    return out
+
+
+def feed_line_notices(sc, runs: dict) -> list[Notice]:
+    """``feed-line-near-tx-vertical`` (distance_m, clearance_m) for each feed line whose run (``runs``: antenna name ->
+    (start, end) [m east, m north], straight from the feed point to the station entry) passes within the clearance
+    the user gives of the transmitting vertical; the vertical's own line aside, and nothing without a given
+    clearance (a receive line's distance has no default of the trade to hold it to)."""
+    from shapely.geometry import LineString, Point
+
+    from snrgain.model.scatter import tx_antenna
+
+    ref = tx_antenna(sc)
+    given = getattr(sc.site, "tx_clearance_m", None)
+    if ref is None or given is None:
+        return []
+    tx = Point(*(ref.params.position or (0.0, 0.0)))
+    out = []
+    for name, (start, end) in runs.items():
+        if name in (ref.name, sc.transmitting):
+            continue
+        d = float(LineString([tuple(start), tuple(end)]).distance(tx))
+        if d < given:
+            out.append(Notice("feed-line-near-tx-vertical", name, {"distance_m": d, "clearance_m": float(given)}))
     return out
 
 

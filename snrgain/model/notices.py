@@ -24,7 +24,9 @@ class Notice:
     filter_db, assumed), ``strong-signal-product`` (order, freq_hz, stations, stage, level_dbm, noise_dbm, over_db,
     filter_db, assumed), ``feed-line-cost`` (cost_db, noise_share_db, choke_ohm, quiet_below_db: a feed line that
     costs more than 1 dB of SNR gain; snrgain.model.feedline), ``feed-line-ground-assumed`` (an antenna whose ground
-    where its feed line's shield ends is snrgain's assumption: a phasing unit's; snrgain.model.feedline).
+    where its feed line's shield ends is snrgain's assumption: a phasing unit's; snrgain.model.feedline),
+    ``feed-line-near-tx-vertical`` (distance_m, clearance_m: a feed line's run within the tx_clearance the user gives;
+    snrgain.decide.lot).
     """
 
     code: str

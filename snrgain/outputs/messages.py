@@ -106,6 +106,14 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{n.antenna}: its feed line's shield is taken to meet {v['antenna_end']} ({v['ground_ohm']:g} ohm to "
             "earth: snrgain's assumption, one short rod); a better ground there lowers the feed line's share"
         )
+    if n.code == "feed-line-near-tx-vertical":
+        return (
+            f"{n.antenna}: its feed line passes within {length_text(v['distance_m'], unit, 0)} of the transmitting "
+            f"vertical (keep {length_text(v['clearance_m'], unit, 0)}, your tx_clearance): while you transmit its "
+            "shield sits in the vertical's strongest field and carries it to the receiver; route it further away, "
+            "or protect the receiver's input while transmitting (a relay that opens and grounds the receive line, "
+            "sequenced so it switches before the transmitter keys, is common practice; follow the equipment's ratings)"
+        )
     if n.code == "feed-line-cost":
         choke = (
             f"a common-mode choke of about {v['choke_ohm']:.0f} ohm at the antenna puts it {v['quiet_below_db']:g} dB "

@@ -875,6 +875,17 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
     return plan
 
 
+def placed_feed_line_notices(problem: Problem, layout: Layout) -> list:
+    """The lot's feed-line notices (snrgain.decide.lot.feed_line_notices: a run within the user's tx_clearance) of the
+    placed candidates' feed lines, each run from where ``layout`` puts its antenna to its station entry (the layout's
+    score leaves these lines out: :func:`unscored_feed_lines`)."""
+    from snrgain.decide.lot import feed_line_notices
+
+    lines = problem.feed_lines
+    runs = {d.name: ((d.east_m, d.north_m), lines[d.name].end_m) for d in layout.designs if d.name in lines}
+    return feed_line_notices(problem.sc, runs)
+
+
 def _statistic(sc, g: np.ndarray, t: int) -> np.ndarray:
     """The ranking's statistic (snrgain.model.products.target_statistic) toward target ``t`` of every antenna at
     once, from SNR gains (antennas, targets, months, hours): the median (or the mean) of each row over the target's
