@@ -353,6 +353,17 @@ def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp
     assert nominal[("Beverage Pacific", pac["target"])] == pytest.approx(pac["snr_gain_db"], abs=0.01)
 
 
+def test_a_placeable_antenna_with_a_feed_line_needs_a_start_and_is_told_why(tmp_path):
+    text = (DATA / FILES[0]).read_text(encoding="utf-8")
+    marker = 'place = { bearing = ["30 deg", "60 deg"]'
+    src = tmp_path / "fed.toml"
+    src.write_text(text.replace(marker, 'feed_line = { to = [5, 5], height = "1 m" }\n' + marker, 1), encoding="utf-8")
+    res = CliRunner().invoke(cli, ["layout", str(src)])
+    assert res.exit_code == 2
+    assert '("Beverage Europe").position: a feed line runs from the antenna\'s feed point' in res.output
+    assert "(with a place table too: where it stands until 'snrgain layout' places it)" in res.output
+
+
 def test_a_placed_feed_line_through_the_users_clearance_is_said_as_rank_says_it(tmp_path):
     # the placed Beverage's feed line runs from where the layout puts it to a station entry 7 m from the transmitting
     # vertical, inside the 20 m clearance the file gives: layout says so for its best layout, and rank of the written

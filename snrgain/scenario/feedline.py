@@ -86,13 +86,14 @@ def take_feed_line(spec, where: str):
 
 
 def resolve_feed_lines(
-    sections: dict, antennas, wheres, site, reference_m, freq_hz: float, station_ground_ohm: float
+    sections: dict, antennas, wheres, site, reference_m, freq_hz: float, station_ground_ohm: float, placeable=()
 ) -> tuple[dict, list]:
     """name -> snrgain.physics.feedline.FeedLine for each antenna whose table gave a feed line (``sections``: where
     -> FeedLineSection), ending at the station ground ([site] station_ground), and the problems: an antenna that
     takes no feed line (snrgain.model.feedline.end_kind: what its end is, not worked out here), one without a
     position, a run shorter than 1 m, a run that leaves the lot (``site.lot_m``, a resolved Site).  ``freq_hz``: the
-    band's (the ends themselves are worked out at it later)."""
+    band's (the ends themselves are worked out at it later); ``placeable``: the names of the candidates with a place
+    table (said in the missing position's problem)."""
     from snrgain.model.feedline import end_kind, feed_point
 
     out, problems = {}, []
@@ -104,7 +105,10 @@ def resolve_feed_lines(
         try:
             start = feed_point(ant, reference_m)
         except ValueError as exc:
-            problems.append((f"{where}.position", str(exc).removeprefix("position: ")))
+            text = str(exc).removeprefix("position: ")
+            if ant.name in placeable:  # 'snrgain layout' moves it, but rank and the plan need a start
+                text += " (with a place table too: where it stands until 'snrgain layout' places it)"
+            problems.append((f"{where}.position", text))
             continue
         try:
             end_kind(ant)

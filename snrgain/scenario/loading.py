@@ -90,6 +90,7 @@ def load(
             built.antennas[0].params.position or (0.0, 0.0),
             model.band.frequency,
             model.site.station_ground,
+            placeable=built.placeable,
         )
         problems += more
     if problems:
