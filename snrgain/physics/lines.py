@@ -326,15 +326,21 @@ def _mode(solver: str, *args):
     return None if kept.size == 0 else tuple(complex(v) for v in kept)
 
 
+_MODE_FILES: list = []
+
+
 def _mode_code() -> str:
     """The digest of the code the wire modes come from (part of :func:`_mode`'s key): snrgain.physics.modal's source
-    (not imported) and what it reads."""
-    import noisemodels.groundwave
+    (not imported) and what it reads (their paths found once per process)."""
     from noisemodels import skycache
-    from snrgain.physics import ground, quadrature
 
-    modal_file = Path(ground.__file__).with_name("modal.py")
-    return skycache.code_digest(modal_file, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__)
+    if not _MODE_FILES:
+        import noisemodels.groundwave
+        from snrgain.physics import ground, quadrature
+
+        modal_file = str(Path(ground.__file__).with_name("modal.py"))
+        _MODE_FILES.extend((modal_file, noisemodels.groundwave.__file__, ground.__file__, quadrature.__file__))
+    return skycache.code_digest(*_MODE_FILES)
 
 
 def _check_geometry(radius_m, height_m):
