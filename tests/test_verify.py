@@ -366,3 +366,18 @@ def test_mangled_logs_never_raise(tmp_path):
         for label, text in (("A", out[0]), ("B", out[1])):
             n = sum(1 for ln in text.splitlines() if ln.split() and not ln.split()[0].startswith("#"))
             assert n == len(r.pairs) + counted[label] + (unplaceable if label == "B" else 0), (trial, label)
+
+
+def test_an_hour_without_decodes_toward_a_target_is_left_out_not_warned():
+    # toward "west" only hour 1 was decoded, toward "east" hours 1 and 2: west's table has no hour 2 row (it was
+    # one warning per such hour: "only 0 pairs (fewer than 20)"), and a target with no decode at all says so once
+    import pandas as pd
+
+    rows = [("east", 1, 1.0)] * 25 + [("east", 2, 2.0)] * 25 + [("west", 1, -1.0)] * 25
+    placed = pd.DataFrame(rows, columns=["target", "hour", "diff_db"])
+    groups = vf.summarise(placed, ["east", "west", "north"], None, n_boot=50)
+    keys = [(g.target, g.hour) for g in groups]
+    assert keys == [("east", None), ("east", 1), ("east", 2), ("west", None), ("west", 1), ("north", None)]
+    north = groups[-1]
+    assert north.n == 0 and north.verdict == "too few pairs" and north.warnings == ("no pairs: no verdict",)
+    assert not any("0 pairs" in w for g in groups for w in g.warnings)

@@ -381,7 +381,7 @@ def verdict(g: Group, min_pairs: int) -> tuple[str | None, tuple[str, ...]]:
     warn = []
     if g.n < min_pairs:
         v = "too few pairs"
-        warn.append(f"only {g.n} pairs (fewer than {min_pairs}): no verdict")
+        warn.append("no pairs: no verdict" if g.n == 0 else f"only {g.n} pairs (fewer than {min_pairs}): no verdict")
     elif g.predicted_db is None:
         v = None
     elif g.high_db < g.predicted_p10_db:
@@ -441,8 +441,9 @@ def summarise(
             continue
         by_hour = dict(tuple(sub.groupby("hour"))) if sub is not None else {}
         for h in hours_all:
-            d = by_hour[h]["diff_db"].to_numpy(float) if h in by_hour else np.array([])
-            groups.append(_group(name, int(h), d, rng, n_boot, pred, min_pairs))
+            if h not in by_hour:  # no decode toward this target at that hour: nothing to set beside the prediction
+                continue
+            groups.append(_group(name, int(h), by_hour[h]["diff_db"].to_numpy(float), rng, n_boot, pred, min_pairs))
     return groups
 
 
