@@ -200,3 +200,11 @@ def test_a_library_warning_is_one_line_and_a_missing_glyph_is_said_plainly():
             assert warnings.formatwarning("plain", UserWarning, "x.py", 3) == "warning: plain\n"
         finally:
             warnings.formatwarning = old
+
+
+def test_wire_names_a_ground_given_as_numbers():
+    args = ["wire", "--frequency", "1.83 MHz", "--length", "200 m", "--conductivity", "2 mS/m", "--permittivity", "8"]
+    res = CliRunner().invoke(cli, args)
+    assert res.exit_code == 0, res.output
+    first = res.output.splitlines()[0]
+    assert first == "beverage: 200.0 m (656 ft) at 2.5 m over a ground of 2 mS/m and relative permittivity 8, 1.83 MHz"

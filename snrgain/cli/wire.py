@@ -143,8 +143,12 @@ def wire(
         where = "resting on"
     else:
         where = f"its axis {100 * ant['height_m']:g} cm above"
+    soil = f"{ant['ground']} ground"
+    if ant["ground"] == "custom" and isinstance(spec.get("ground"), dict):  # given as numbers: say them
+        g = spec["ground"]
+        soil = f"a ground of {g.get('conductivity')} and relative permittivity {g.get('permittivity'):g}"
     lines_out = [
-        f"{family}: {length_m:.1f} m ({length_m * ft:.0f} ft) {where} {ant['ground']} ground, {f / 1e6:g} MHz",
+        f"{family}: {length_m:.1f} m ({length_m * ft:.0f} ft) {where} {soil}, {f / 1e6:g} MHz",
         f"  line: velocity factor {ln['velocity_factor']:.3f}, "
         f"attenuation {ln['attenuation_db_per_100m']:.2f} dB/100 m "
         f"({ln['attenuation_db_per_100ft']:.2f} dB/100 ft), Z0 {z0.real:.0f}{z0.imag:+.0f}j ohm (|Z0| {abs(z0):.0f})",
