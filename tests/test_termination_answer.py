@@ -216,3 +216,27 @@ def test_rank_build_and_the_report_print_the_answer():
     assert f"termination {ohm:.0f} ohm" in lines[flag.name] and f"termination {ohm:.0f} ohm" in page
     assert f"over |Z0| {flag.build['termination_answer']['matched_ohm']:.0f} ohm" in page
     assert "gas discharge tube" in lines[flag.name]
+
+
+@pytest.mark.skipif(not HAVE_P372, reason="needs the ITU-R P.372 coefficient files (SNRGAIN_P372_DIR)")
+def test_a_resistor_that_trades_the_rear_null_for_little_snr_is_said():
+    # Alder Hollow in summer: the Beverage toward Europe's resistor of best SNR gain beats |Z0| by under 1 dB while
+    # its front-to-back toward the bearing at 20 deg lies more than 10 dB below |Z0|'s: a notice says so, its numbers
+    # those of the wire itself at the two resistors (its pattern front and back, worked here afresh)
+    import snrgain
+    from snrgain.outputs.messages import notice_text
+    from snrgain.scenario import load
+
+    path = REPO / "scenarios" / "alder-hollow-summer.toml"
+    r = snrgain.evaluate(load(path, p372_dir=P372_DIR))
+    said = {n.antenna: n.values for n in r.notices if n.code == "termination-fragile"}
+    v = said["Beverage toward Europe"]
+    assert v["over_matched_db"] < 1.0 and v["front_to_back_matched_db"] - v["front_to_back_db"] >= 10.0
+    sc = load(path, p372_dir=P372_DIR)
+    wire = next(a for a in sc.candidates if a.name == "Beverage toward Europe")
+    b = float(wire.params.bearing)
+    for ohm, key in ((v["termination_ohm"], "front_to_back_db"), (v["matched_ohm"], "front_to_back_matched_db")):
+        g = variant(wire, termination=ohm).gain_linear(sc.freq_hz, np.array([b, b + np.pi]), np.array([EL20, EL20]))
+        assert 10 * np.log10(g[0] / g[1]) == pytest.approx(v[key], abs=0.05)
+    text = notice_text(next(n for n in r.notices if n.code == "termination-fragile"))
+    assert "beats |Z0|" in text and "the |Z0| resistor is the safer build" in text

@@ -64,6 +64,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
             if far > 0.7 * z0:
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
     out.extend(local_source_notices(sc, antennas[1:]))
+    out.extend(fragile_termination_notices(sc))
     from snrgain.decide.lot import site_notices
     from snrgain.decide.reading import reading_notices
     from snrgain.model.feedline import notices as feed_line_notices
@@ -109,6 +110,50 @@ def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[
                     "local-source-dominates",
                     r.name,
                     {"source": loudest, "source_dbm": src_dbm, "rest_dbm": rest_dbm, "over_db": src_dbm - rest_dbm},
+                )
+            )
+    return out
+
+
+FRAGILE_OVER_DB = 1.0
+"""A resistor chosen for SNR under the site's noise that beats |Z0| by less than this [dB] ..."""
+FRAGILE_FRONT_TO_BACK_DB = 10.0
+"""... while giving up this much front-to-back against |Z0| [dB] is said to rest on the noise as modelled (snrgain's
+thresholds: a tenth of the front-to-back's power traded for under 1 dB)."""
+
+
+def fragile_termination_notices(sc: Scenario) -> list[Notice]:
+    """``termination-fragile`` (termination_ohm, matched_ohm, over_matched_db, front_to_back_db,
+    front_to_back_matched_db) for each candidate whose resistor, chosen for SNR gain under the site's noise
+    (termination = "auto", auto_for = "snr"), beats |Z0| by less than FRAGILE_OVER_DB while its front-to-back toward
+    the bearing lies FRAGILE_FRONT_TO_BACK_DB or more below |Z0|'s: a null placed on the noise as modelled (a
+    source's bearing and level, the storms' directions), which a real site may not hold to."""
+    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
+    from snrgain.tools.wiredesign import termination_answer
+
+    out = []
+    for ant in sc.candidates:
+        if getattr(ant, "sky_termination", None) is None:
+            continue
+        ans = termination_answer(ant, sc.freq_hz)
+        if ans is None or ans.over_matched_db >= FRAGILE_OVER_DB:
+            continue
+        bearing = getattr(ant, "bearing_rad", getattr(ant.params, "bearing", 0.0))
+        elevation = getattr(ant.params, "auto_elevation", AUTO_ELEVATION_RAD)
+        fb = termination_figure(ant.termination_pattern(sc.freq_hz), bearing, elevation, "front_to_back")
+        at_best, at_matched = (float(10 * np.log10(max(fb(r), 1e-30))) for r in (ans.best_ohm, ans.matched_ohm))
+        if at_matched - at_best >= FRAGILE_FRONT_TO_BACK_DB:
+            out.append(
+                Notice(
+                    "termination-fragile",
+                    ant.name,
+                    {
+                        "termination_ohm": ans.best_ohm,
+                        "matched_ohm": ans.matched_ohm,
+                        "over_matched_db": ans.over_matched_db,
+                        "front_to_back_db": at_best,
+                        "front_to_back_matched_db": at_matched,
+                    },
                 )
             )
     return out

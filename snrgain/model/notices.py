@@ -27,7 +27,9 @@ class Notice:
     where its feed line's shield ends is snrgain's assumption: a phasing unit's; snrgain.model.feedline),
     ``feed-line-near-tx-vertical`` (distance_m, clearance_m: a feed line's run within the tx_clearance the user gives;
     snrgain.decide.lot), ``local-source-dominates`` (source, source_dbm, rest_dbm, over_db: a candidate whose loudest
-    local source is 6 dB or more above the rest of its noise; snrgain.decide.decisions).
+    local source is 6 dB or more above the rest of its noise; snrgain.decide.decisions), ``termination-fragile``
+    (termination_ohm, matched_ohm, over_matched_db, front_to_back_db, front_to_back_matched_db: a resistor chosen for
+    SNR that beats |Z0| by under 1 dB at 10 dB or more of front-to-back; snrgain.decide.decisions).
     """
 
     code: str
