@@ -315,3 +315,25 @@ def test_a_candidate_with_a_feed_line_sweeps_as_rank_scores_it(tmp_path, monkeyp
     rows = list(csv.DictReader(out.open()))
     assert [r["antenna"] for r in rows] == ["bev", "bev"]
     assert float(rows[1]["snr_gain_db"]) > float(rows[0]["snr_gain_db"]) + 0.5
+
+
+def test_sweep_takes_another_reference_with_a_placed_level(tmp_path):
+    # The placed source's level stays read on the file's reference (snrgain.model.pipeline.resolve_sources): the
+    # sweep runs against another reference, the file's own design as rank --reference scores it.
+    import snrgain
+
+    path, study = _feed_study(tmp_path, "bev: termination = 400, 500")
+    study.reference = "other"
+    assert study.fast
+    rows = sw.run_designs(study, list(enumerate(sw.designs(study.varies))))
+    ranked = {c.name: c for c in snrgain.evaluate(snrgain.load(path, reference="other")).candidates}["bev"]
+    assert rows[1]["snr_gain_db"] == pytest.approx(float(ranked.snr_gain_nominal_db[0]), abs=1e-9)
+    out = tmp_path / "s.csv"
+    vary = "bev: termination = 400, 500"
+    res = CliRunner().invoke(cli, ["sweep", str(path), "--reference", "other", "--vary", vary, "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    # a problem of the scenario itself is said as rank says it, not blamed on a varied value
+    bad = tmp_path / "bad.csv"
+    res = CliRunner().invoke(cli, ["sweep", str(path), "--reference", "nobody", "--vary", vary, "-o", str(bad)])
+    assert res.exit_code == 2
+    assert "--reference: no antenna named 'nobody'" in res.stderr and "--vary" not in res.stderr and not bad.exists()

@@ -143,8 +143,9 @@ def reading_antenna(src, file_reference) -> str | None:
 
 
 def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list[tuple[str, str]]:
-    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on the reference in force
-    (its pickup is carried to the other antennas from there)."""
+    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on an antenna as it
+    stands, not on one set under the sky (an array steered by the noise, a phasing unit: its setting comes after the
+    noise; snrgain.model.pipeline.resolve_sources)."""
     names = [a.name for a in built.antennas]
     out = []
     for i, src in enumerate(model.noise.local):
@@ -154,13 +155,13 @@ def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list
             continue
         if on not in names:
             out.append((where, f"no antenna named {on!r}; the scenario has {', '.join(repr(n) for n in names)}"))
-        elif src.placed and on != names[0]:
+        elif src.placed and on != names[0] and built.antennas[names.index(on)].uses_sky:
             out.append(
                 (
                     where,
-                    f"a placed source's level is read on the reference in force ({names[0]!r}), not on {on!r}; "
-                    "rank against the antenna it was read on, or give the source's fa with measured_at (where it "
-                    "was read)",
+                    f"{on!r} is set under the site's noise (steered or phased for it), so a placed source's level "
+                    "cannot be read on it; name the antenna it was read on as it stands, or give the source's fa "
+                    "with measured_at (where it was read)",
                 )
             )
     return out

@@ -283,10 +283,23 @@ def validate(study: Study) -> None:
             try:
                 study.load(apply(study.data, study.varies, values))
             except ScenarioError as exc:
+                _unvaried_fails(study, exc)
                 problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
                 raise VaryError(vary.text, f"with {_shown(value)} the scenario is invalid: {problems}") from None
             except (SpecError, ValueError) as exc:
                 raise VaryError(vary.text, f"with {_shown(value)}: {exc}") from None
+
+
+def _unvaried_fails(study: Study, exc: ScenarioError) -> None:
+    """Raise the scenario's own error when the file as written (with the command's options) fails with every problem
+    a design failed with: those are not the varied value's doing, and are said as rank says them."""
+    try:
+        study.load(study.data)
+    except ScenarioError as own:
+        if set(exc.problems) <= set(own.problems):
+            raise own from None
+    except (SpecError, ValueError):
+        pass
 
 
 def _shown(value) -> str:
