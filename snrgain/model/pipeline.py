@@ -54,8 +54,8 @@ from snrgain.sky import noise as noisemod
 def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: bool = False, observe=None) -> Results:
     """Run a scenario (path, TOML text, dict, or a loaded Scenario) and return Results.
 
-    ``p372_dir``: folder of the ITU-R P.372 coefficient files, used when
-    neither the scenario key nor $SNRGAIN_P372_DIR names one.  A scenario whose
+    ``p372_dir``: folder of the ITU-R P.372 coefficient files; it wins over
+    the scenario key and $SNRGAIN_P372_DIR.  A scenario whose
     estimated cost passes :data:`MAX_SECONDS` or :data:`MAX_MEMORY_BYTES` is
     refused before any work (:class:`snrgain.errors.TooLargeError`, with the
     estimate) unless ``allow_long``.

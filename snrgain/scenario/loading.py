@@ -49,9 +49,10 @@ def load(
     """Load and validate a scenario from a path, TOML text or a dict.
 
     ``p372_dir`` is the folder of the ITU-R P.372 coefficient files given on
-    the command line; the scenario key ``noise.atmospheric.data_dir`` and the
-    environment variable SNRGAIN_P372_DIR take precedence over it, in that
-    order.  A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
+    the command line; it takes precedence over the scenario key
+    ``noise.atmospheric.data_dir``, which takes precedence over the
+    environment variable SNRGAIN_P372_DIR (:func:`snrgain.scenario.noise.p372_dir_named`).
+    A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
     name of an antenna of the scenario to rank against instead of the file's reference (the file's reference then
     stands among the candidates where that antenna stood; levels of local sources stay read where the file says,
     :func:`choose_reference`).  ``band``: the band to load from a file of several (``[[band]]``; a file of one
