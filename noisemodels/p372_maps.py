@@ -42,8 +42,8 @@ FREQ_RANGE_HZ = (10e3, 30e6)
 HOW_TO_GET = (
     "The ITU-R P.372 coefficient files COEFF01W.txt ... COEFF12W.txt are published by ITU-R Study "
     "Group 3 with its software for Recommendation ITU-R P.372 (ITU-R SG3 software and data pages). "
-    f"Put them in a folder and name it with the scenario key noise.atmospheric.data_dir, the environment "
-    f"variable {ENV_VAR}, or the --p372-dir option; or give the level by hand: "
+    f"Put them in a folder and name it with the --p372-dir option, the scenario key noise.atmospheric.data_dir "
+    f"or the environment variable {ENV_VAR}; or give the level by hand: "
     '[noise.atmospheric] model = "given", fa = "45 dB".'
 )
 

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from noisemodels import p372, p372_maps, sky, sphere, storms
-from tests.conftest import P372_DIR, needs_p372
+from tests.conftest import P372_DIR, SCENARIOS, needs_p372
 
 pytestmark = needs_p372
 
@@ -221,19 +221,49 @@ def test_scenario_asking_for_p372_without_data_fails_clearly(minimal_text, monke
     assert load(minimal_text).noise.atmospheric is None
 
 
-def test_data_dir_precedence_scenario_env_option(minimal_text, monkeypatch, tmp_path):
+def test_data_dir_precedence_option_scenario_env(minimal_text, monkeypatch, tmp_path):
+    # The command line's --p372-dir wins over the scenario key, which wins over $SNRGAIN_P372_DIR; an error about the
+    # folder says which of them named it.
     from snrgain.scenario import ScenarioError, load
 
     text = minimal_text + '\n[noise.atmospheric]\nmodel = "p372"\n'
+    missing = tmp_path / "missing"
     # The option alone works.
     monkeypatch.delenv(p372_maps.ENV_VAR, raising=False)
     assert load(text, p372_dir=P372_DIR).noise.p372_dir == P372_DIR
-    # The environment variable wins over the option.
-    monkeypatch.setenv(p372_maps.ENV_VAR, str(tmp_path))
-    with pytest.raises(ScenarioError, match=str(tmp_path)):
-        load(text, p372_dir=P372_DIR)
-    # The scenario key wins over both.
-    assert load(text + f'data_dir = "{P372_DIR}"\n', p372_dir=tmp_path).noise.p372_dir == P372_DIR
+    # The option wins over the environment variable, even one naming a folder that does not exist.
+    monkeypatch.setenv(p372_maps.ENV_VAR, str(missing))
+    assert load(text, p372_dir=P372_DIR).noise.p372_dir == P372_DIR
+    # The environment variable alone: its folder, and the error says it named it.
+    with pytest.raises(ScenarioError, match=r"the folder \$SNRGAIN_P372_DIR names: .*does not exist") as err:
+        load(text)
+    assert str(missing) in str(err.value)
+    # The scenario key wins over the environment variable, the option over the key.
+    keyed = text + f'data_dir = "{P372_DIR}"\n'
+    assert load(keyed).noise.p372_dir == P372_DIR
+    assert load(keyed, p372_dir=P372_DIR).noise.p372_dir == P372_DIR
+    with pytest.raises(ScenarioError, match="the folder --p372-dir names: .*does not exist"):
+        load(keyed, p372_dir=missing)
+    with pytest.raises(ScenarioError, match="the folder noise.atmospheric.data_dir names: .*does not exist"):
+        load(text + f'data_dir = "{missing}"\n')
+
+
+def test_p372_dir_option_wins_on_the_command_line(tmp_path):
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    scenario = SCENARIOS / "alder-hollow-summer.toml"
+    env = {p372_maps.ENV_VAR: str(tmp_path / "missing")}
+    res = CliRunner().invoke(cli, ["check", str(scenario), "--p372-dir", str(P372_DIR)], env=env)
+    assert res.exit_code == 0, res.output
+    res = CliRunner().invoke(cli, ["check", str(scenario)], env=env)
+    assert res.exit_code == 2 and "$SNRGAIN_P372_DIR names" in res.stderr
+    args = ["noise", "--lat", "0", "--lon", "0", "--month", "1", "--frequency", "2 MHz", "--format", "json"]
+    res = CliRunner().invoke(cli, [*args, "--p372-dir", str(P372_DIR)], env=env)
+    assert res.exit_code == 0, res.output
+    res = CliRunner().invoke(cli, args, env=env)
+    assert res.exit_code == 2 and "$SNRGAIN_P372_DIR names" in res.stderr
 
 
 def test_noise_command_table_and_json(tmp_path):

@@ -236,16 +236,39 @@ def test_a_levels_unit_component_kept_across_grounds_reads_the_same():
 
 
 def test_placed_sources_under_another_reference():
-    # A placed source's level is read on the reference in force (its pickup is carried from there to every antenna):
-    # read on another antenna it is refused with the way out.  A placed source's fa stays where the file's reference
-    # stands (its default measured_at), so each antenna's noise moves only by the compact-source approximation of
-    # the reference's pickup (10 deg spread): about 0.1 dB here, not the tens of dB of a re-read level.
+    # A placed source's level stays read on the file's reference under another reference (its pickup is carried from
+    # the reference in force, P_A / P_ref, so its strength is the one that gives the file's reference the reading):
+    # every antenna's noise is the one the file gives, to round-off, over the ground spread too, and only the
+    # reference changes.  The resistors are fixed: an "auto" one is chosen under the sky only for a candidate.
     at = {"tx vertical": [0, 0], "beverage NE": [30, 40], "flag NE": [60, -20], "short vertical": [-20, 10]}
-    ants = [dict(a, position=at[a["name"]]) for a in (VERTICAL, BEVERAGE, LOOP, SHORT)]
+    fixed = {"beverage NE": {"termination": "450 ohm"}, "flag NE": {"termination": "900 ohm"}}
+    ants = [dict(a, position=at[a["name"]], **fixed.get(a["name"], {})) for a in (VERTICAL, BEVERAGE, LOOP, SHORT)]
     level = scenario(ants[0], ants[1:], local=[{"name": "shed", "position": ["120 m", "-30 m"], "level": "S7"}])
+    level["uncertainty"]["ground"] = True
+    a = evaluate(load(level))
+    assert np.asarray(a.antenna("tx vertical").noise_by_component_dbm["shed"]) == pytest.approx(-85.0, abs=1e-9)
+    for other in ("short vertical", "beverage NE", "flag NE"):
+        b = evaluate(load(level, reference=other))
+        assert b.reference.name == other and "tx vertical" in [x.name for x in b.candidates]
+        for x in a.antennas:
+            y = b.antenna(x.name)
+            np.testing.assert_allclose(np.asarray(y.noise_dbm), np.asarray(x.noise_dbm), rtol=0, atol=1e-9)
+            for name in x.noise_by_component_dbm:
+                np.testing.assert_allclose(
+                    np.asarray(y.noise_by_component_dbm[name]), np.asarray(x.noise_by_component_dbm[name]), atol=1e-9
+                )
+            # the SNR gain over the new reference: each antenna's over the file's less the new reference's
+            want = np.asarray(x.snr_gain_db) - np.asarray(a.antenna(other).snr_gain_db)
+            np.testing.assert_allclose(np.asarray(y.snr_gain_db), want, atol=1e-9, equal_nan=True)
+    # read on an antenna set under the site's noise (a pair steered for SNR) it is refused, with the way out
+    pair = {"name": "pair", "family": "phased-verticals", "positions": [[-40, 0], [-40, 20]], "height": "6 m"}
+    pair |= {"feed": "buffered", "steering": "auto", "auto_for": "snr"}
+    on_pair = scenario(ants[0], [*ants[1:], pair], local=[dict(level["noise"]["local"][0], read_on="pair")])
     with pytest.raises(ScenarioError) as err:
-        load(level, reference="short vertical")
+        load(on_pair)
     assert any(p.endswith("read_on") and "measured_at" in m for p, m in err.value.problems)
+    # a placed fa stays where the file's reference stands (its default measured_at), so each antenna's noise moves
+    # only by the compact-source approximation of the reference's pickup (10 deg spread): about 0.1 dB here
     fa = scenario(ants[0], ants[1:], local=[{"name": "shed", "position": ["120 m", "-30 m"], "fa": 70}])
     a, b = evaluate(load(fa)), evaluate(load(fa, reference="short vertical"))
     for x in a.antennas:

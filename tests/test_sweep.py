@@ -212,3 +212,128 @@ def test_a_sweep_may_rename_a_candidate_and_a_long_one_is_asked_for(tmp_path):
     big = ["--vary", "Beverage toward Europe: length = 100 m to 1099.999 m by 0.001 m"]
     res = CliRunner().invoke(cli, ["sweep", str(DEMO), *big, "-o", str(tmp_path / "big.csv")])
     assert res.exit_code == 2 and "--allow-long" in res.output and not (tmp_path / "big.csv").exists()
+
+
+FEED_SCENARIO = """
+[site]
+name = "test lot"
+latitude = 44.2
+longitude = -71.3
+ground = "moist loam"
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[[noise.local]]
+name = "supply"
+position = ["10 m", "75 m"]
+height = "1 m"
+level = "S9"
+
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "40 m"
+
+[[candidate]]
+name = "bev"
+family = "beverage"
+length = "200 m"
+height = "2 m"
+bearing = 45
+position = ["0 m", "150 m"]
+termination = "500 ohm"
+feed_line = { to = ["0 m", "0 m"], height = "1 m" }
+
+[[candidate]]
+name = "other"
+family = "beverage"
+length = "150 m"
+height = "2 m"
+bearing = 90
+position = ["-100 m", "-50 m"]
+"""
+
+
+def _feed_study(tmp_path, *varies):
+    path = tmp_path / "feed.toml"
+    path.write_text(FEED_SCENARIO)
+    data, label, base = read_source(path)
+    return path, sw.Study(data, label, str(base), [sw.parse_vary(v) for v in varies])
+
+
+def _same_rows(a_rows, b_rows):
+    assert len(a_rows) == len(b_rows)
+    for a, b in zip(a_rows, b_rows):
+        assert a.keys() == b.keys()
+        for k in a:
+            if isinstance(a[k], float):
+                assert a[k] == pytest.approx(b[k], abs=1e-9), k
+            else:
+                assert a[k] == b[k], k
+
+
+def test_a_candidate_with_a_feed_line_sweeps_as_rank_scores_it(tmp_path, monkeypatch):
+    # A candidate's own keys varied with its feed_line table there: the shared fast path scores the design with the
+    # line (its run starting where the design stands), as a full run and rank do; the file's own design is rank's.
+    import snrgain
+
+    path, study = _feed_study(tmp_path, "bev: termination = 400, 500")
+    # the design moved too (its feed line's run then starts where it stands); a list value, so made here
+    study.varies.append(sw.Vary("bev: position", "bev", "position", [[0, 150], [0, 140]], "bev: position", [150, 140]))
+    assert study.fast
+    chunk = list(enumerate(sw.designs(study.varies)))
+    fast = sw.run_designs(study, chunk)
+    monkeypatch.setattr(sw.Study, "fast", property(lambda self: False))
+    full = sw.run_designs(study, chunk)
+    monkeypatch.undo()
+    _same_rows(fast, full)
+    ranked = {c.name: c for c in snrgain.evaluate(path).candidates}["bev"]
+    own = [r for r in fast if r["bev: termination"] == 500 and r["design"] == 2]
+    assert own and own[0]["snr_gain_db"] == pytest.approx(float(ranked.snr_gain_nominal_db[0]), abs=1e-9)
+    # the line is scored: without it the same design gains otherwise
+    bare_data = {
+        **study.data,
+        "candidate": [{k: v for k, v in c.items() if k != "feed_line"} for c in study.data["candidate"]],
+    }
+    bare = sw.run_designs(sw.Study(bare_data, study.label, study.base_dir, study.varies), chunk)
+    assert abs(bare[2]["snr_gain_db"] - own[0]["snr_gain_db"]) > 0.5
+    # a feed line's own key varied: every design in full
+    out = tmp_path / "s.csv"
+    res = CliRunner().invoke(
+        cli, ["sweep", str(path), "--vary", "bev: feed_line.isolation = shared-ground, transformer", "-o", str(out)]
+    )
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.open()))
+    assert [r["antenna"] for r in rows] == ["bev", "bev"]
+    assert float(rows[1]["snr_gain_db"]) > float(rows[0]["snr_gain_db"]) + 0.5
+
+
+def test_sweep_takes_another_reference_with_a_placed_level(tmp_path):
+    # The placed source's level stays read on the file's reference (snrgain.model.pipeline.resolve_sources): the
+    # sweep runs against another reference, the file's own design as rank --reference scores it.
+    import snrgain
+
+    path, study = _feed_study(tmp_path, "bev: termination = 400, 500")
+    study.reference = "other"
+    assert study.fast
+    rows = sw.run_designs(study, list(enumerate(sw.designs(study.varies))))
+    ranked = {c.name: c for c in snrgain.evaluate(snrgain.load(path, reference="other")).candidates}["bev"]
+    assert rows[1]["snr_gain_db"] == pytest.approx(float(ranked.snr_gain_nominal_db[0]), abs=1e-9)
+    out = tmp_path / "s.csv"
+    vary = "bev: termination = 400, 500"
+    res = CliRunner().invoke(cli, ["sweep", str(path), "--reference", "other", "--vary", vary, "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    # a problem of the scenario itself is said as rank says it, not blamed on a varied value
+    bad = tmp_path / "bad.csv"
+    res = CliRunner().invoke(cli, ["sweep", str(path), "--reference", "nobody", "--vary", vary, "-o", str(bad)])
+    assert res.exit_code == 2
+    assert "--reference: no antenna named 'nobody'" in res.stderr and "--vary" not in res.stderr and not bad.exists()

@@ -56,21 +56,20 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
     Levels are Fa, dB above kT0b, on P.372's reference antenna (a short
     vertical over perfect ground), with the P.372 Section 8 total and its
     decile deviations; then where atmospheric noise arrives from at --hour.
-    The P.372 data folder comes from $SNRGAIN_P372_DIR, else --p372-dir.
+    The P.372 data folder comes from --p372-dir, else $SNRGAIN_P372_DIR.
     """
-    import os
-
-    from noisemodels.p372_maps import ENV_VAR
     from snrgain.constants import check_frequency_hz
+    from snrgain.scenario.noise import check_p372_dir, p372_dir_named
     from snrgain.sky.noiseday import noise_over_day
     from snrgain.units import parse_quantity
 
-    data_dir = os.environ.get(ENV_VAR) or p372_dir
     check_output(output, overwrite=overwrite)
     try:
         f = check_frequency_hz(parse_quantity(frequency, "frequency"))
     except ValueError as exc:
         raise ValueError(f"--frequency: {exc}") from None
+    chosen = p372_dir_named(p372_dir)
+    data_dir = None if chosen is None else check_p372_dir(chosen, [month])
     with progress(None, "noise: 24 hours and the storms' directions"):
         data = noise_over_day(
             lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour

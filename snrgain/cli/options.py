@@ -210,8 +210,8 @@ p372_dir_option = click.option(
     "--p372-dir",
     type=click.Path(file_okay=False, path_type=str),
     default=None,
-    help="Folder of the ITU-R P.372 coefficient files COEFF01W.txt ... COEFF12W.txt, used when neither the "
-    "scenario key noise.atmospheric.data_dir nor the environment variable SNRGAIN_P372_DIR names one.",
+    help="Folder of the ITU-R P.372 coefficient files COEFF01W.txt ... COEFF12W.txt.  It wins over the scenario key "
+    "noise.atmospheric.data_dir, which wins over the environment variable SNRGAIN_P372_DIR.",
 )
 
 

@@ -66,7 +66,8 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
     and the worst-hour noise margin.
 
     Only a candidate's own keys varying: the sky and the reference are computed once, so thousands of designs
-    take seconds.  Varying the site, band, time or reference, or asking --spread, runs each design in full.
+    take seconds (its feed_line scored with it, as rank does).  Varying the site, band, time or reference, a
+    candidate's chain or feed line, or asking --spread, runs each design in full.
     A scenario of several bands runs each design in every band (a 'band' column) unless --band picks one.
     """
     from snrgain.cli.options import progress

@@ -54,8 +54,8 @@ from snrgain.sky import noise as noisemod
 def evaluate(source, *, nside: int | None = None, p372_dir=None, allow_long: bool = False, observe=None) -> Results:
     """Run a scenario (path, TOML text, dict, or a loaded Scenario) and return Results.
 
-    ``p372_dir``: folder of the ITU-R P.372 coefficient files, used when
-    neither the scenario key nor $SNRGAIN_P372_DIR names one.  A scenario whose
+    ``p372_dir``: folder of the ITU-R P.372 coefficient files; it wins over
+    the scenario key and $SNRGAIN_P372_DIR.  A scenario whose
     estimated cost passes :data:`MAX_SECONDS` or :data:`MAX_MEMORY_BYTES` is
     refused before any work (:class:`snrgain.errors.TooLargeError`, with the
     estimate) unless ``allow_long``.
@@ -152,28 +152,65 @@ def _reader(sc: Scenario, src, antennas=None) -> int:
     return names.index(src.read_on) if src.read_on in names else 0
 
 
+def _placed_elsewhere(s, k: int) -> bool:
+    """A placed source whose level was read on antenna ``k`` other than the reference in force."""
+    return k != 0 and s.position_m is not None
+
+
+def _readings_fa_db(sc: Scenario, srcs, k: int, antennas, ground=None) -> list[float]:
+    """The Fa of each of ``srcs``, levels read on antenna ``k`` of ``antennas`` ([reference, ...], as the products
+    take them) through that antenna's chain.
+
+    A source heard from a direction: as antenna ``k`` receives it through its own pattern.  A placed source (read on
+    another antenna than the reference: :func:`_placed_elsewhere`): every antenna takes it as the reference does times
+    P_A / P_ref (snrgain.model.placed), so the reading antenna receives T_ref P_k / P_ref; its Fa is the one that
+    gives the reference the reading times P_ref / P_k, P its power from the source on ``ground`` (default the
+    site's).  The reading antenna then receives what was read, and every antenna's noise is the one it has when the
+    reading antenna is the reference: a level stays read on its antenna whichever antenna is ranked against."""
+    placed_ = [s for s in srcs if _placed_elsewhere(s, k)]
+    direct = [s for s in srcs if not _placed_elsewhere(s, k)]
+    out = {}
+    if direct:
+        got = noisemod.levels_to_fa_db(direct, sc.place, _reference_gain(sc, antennas[k]), _chain_gain_db(sc, k))
+        out.update({s.name: v for s, v in zip(direct, got)})
+    if placed_:
+        from snrgain.model import placed
+
+        got = noisemod.levels_to_fa_db(placed_, sc.place, _reference_gain(sc, antennas[0]), _chain_gain_db(sc, k))
+        alone = replace(sc, noise=replace(sc.noise, local=tuple(placed_)))
+        _, powers = placed.pickup(alone, [antennas[0], antennas[k]], ground=ground)
+        for s, v in zip(placed_, got):
+            p_ref, p_k = powers[s.name]
+            if not p_k > 0:
+                raise ValueError(
+                    f"noise.local {s.name!r}: {antennas[k].name!r}, which its level was read on, hears none of it"
+                )
+            out[s.name] = v - float(10 * np.log10(p_k / p_ref))
+    return [out[s.name] for s in srcs]
+
+
 def resolve_sources(sc: Scenario) -> Scenario:
     """The scenario with each local level turned into the source's strength (its Fa), as the antenna it was read
     on (``read_on``: the reference by default) receives it through its chain: the one place where a reading is
-    converted (:func:`snrgain.sky.noise.level_to_fa_db`)."""
-    if not any(s.level_dbm is not None and s.fa_db is None for s in sc.noise.local):
+    converted (:func:`_readings_fa_db`, :func:`snrgain.sky.noise.level_to_fa_db`)."""
+    todo = [s for s in sc.noise.local if s.level_dbm is not None and s.fa_db is None]
+    if not todo:
         return sc
-    local = []
-    for s in sc.noise.local:
-        if s.level_dbm is not None and s.fa_db is None:
-            k = _reader(sc, s)
-            s = replace(
-                s,
-                fa_db=noisemod.level_to_fa_db(s, sc.place, _reference_gain(sc, sc.antennas[k]), _chain_gain_db(sc, k)),
-            )
-        local.append(s)
-    return replace(sc, noise=replace(sc.noise, local=tuple(local)))
+    readers = {id(s): _reader(sc, s) for s in todo}
+    antennas = sc.antennas
+    if any(_placed_elsewhere(s, readers[id(s)]) for s in todo):
+        antennas = with_structures(sc).antennas  # a placed source's pickup, as the products take it
+    local = tuple(
+        replace(s, fa_db=_readings_fa_db(sc, [s], readers[id(s)], antennas)[0]) if id(s) in readers else s
+        for s in sc.noise.local
+    )
+    return replace(sc, noise=replace(sc.noise, local=local))
 
 
-def strength_offsets_db(sc: Scenario, antennas) -> dict[str, float]:
-    """For antennas changed by a variant (another ground; ``antennas`` in the scenario's order, or the reference
-    alone): how many dB each source's strength must move so that the antenna its level was read on still receives
-    what was read (name -> dB)."""
+def strength_offsets_db(sc: Scenario, antennas, ground=None) -> dict[str, float]:
+    """For antennas changed by a variant (another ground, ``ground``: the soil under a placed source's field;
+    ``antennas`` in the scenario's order, or the reference alone): how many dB each source's strength must move so
+    that the antenna its level was read on still receives what was read (name -> dB)."""
     antennas = list(antennas) if isinstance(antennas, (list, tuple)) else [antennas]
     by_reader: dict[int, list] = {}  # the levels read on each antenna, read again together
     for s in sc.noise.local:
@@ -181,7 +218,7 @@ def strength_offsets_db(sc: Scenario, antennas) -> dict[str, float]:
             by_reader.setdefault(_reader(sc, s, antennas) if len(antennas) > 1 else 0, []).append(s)
     fa = {}
     for k, srcs in by_reader.items():
-        got = noisemod.levels_to_fa_db(srcs, sc.place, _reference_gain(sc, antennas[k]), _chain_gain_db(sc, k))
+        got = _readings_fa_db(sc, srcs, k, antennas, ground)
         fa.update({s.name: v - s.fa_db for s, v in zip(srcs, got)})
     return {s.name: fa[s.name] for s in sc.noise.local if s.name in fa}
 

@@ -7,9 +7,11 @@ height follows :func:`noisemodels.nearground.field` (direct wave, the
 image's quasi-static and reflected waves, Norton's surface wave).  "both"
 is a vertical and a horizontal dipole radiating independently, half the
 power each (their powers add).  The sky carries the source as a compact
-component seen from the reference antenna (its level read there, or its Fa
-at ``measured_at``); every other antenna's share is scaled by how much more
-or less it picks up of the same source:
+component seen from the reference antenna (its level read there, or on
+another antenna ``read_on``, its strength then the one that gives that
+antenna the reading through the ratio below; or its Fa at ``measured_at``);
+every other antenna's share is scaled by how much more or less it picks up
+of the same source:
 
     T_A = T_ref x P_A / P_ref,
 

@@ -134,7 +134,7 @@ def variants(sc, nominal, grid, skies) -> list[tuple[object, float]]:
             out.append((nominal, weight))
             continue
         moved = moved_to[i]
-        strength = strength_offsets_db(sc, moved)
+        strength = strength_offsets_db(sc, moved, ground)
         out.append((products(sc, moved, grid, skies, ground=ground, strength_db=strength, known=nominal), weight))
     return out
 

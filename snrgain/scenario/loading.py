@@ -49,9 +49,10 @@ def load(
     """Load and validate a scenario from a path, TOML text or a dict.
 
     ``p372_dir`` is the folder of the ITU-R P.372 coefficient files given on
-    the command line; the scenario key ``noise.atmospheric.data_dir`` and the
-    environment variable SNRGAIN_P372_DIR take precedence over it, in that
-    order.  A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
+    the command line; it takes precedence over the scenario key
+    ``noise.atmospheric.data_dir``, which takes precedence over the
+    environment variable SNRGAIN_P372_DIR (:func:`snrgain.scenario.noise.p372_dir_named`).
+    A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
     name of an antenna of the scenario to rank against instead of the file's reference (the file's reference then
     stands among the candidates where that antenna stood; levels of local sources stay read where the file says,
     :func:`choose_reference`).  ``band``: the band to load from a file of several (``[[band]]``; a file of one
@@ -143,8 +144,9 @@ def reading_antenna(src, file_reference) -> str | None:
 
 
 def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list[tuple[str, str]]:
-    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on the reference in force
-    (its pickup is carried to the other antennas from there)."""
+    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on an antenna as it
+    stands, not on one set under the sky (an array steered by the noise, a phasing unit: its setting comes after the
+    noise; snrgain.model.pipeline.resolve_sources)."""
     names = [a.name for a in built.antennas]
     out = []
     for i, src in enumerate(model.noise.local):
@@ -154,13 +156,13 @@ def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list
             continue
         if on not in names:
             out.append((where, f"no antenna named {on!r}; the scenario has {', '.join(repr(n) for n in names)}"))
-        elif src.placed and on != names[0]:
+        elif src.placed and on != names[0] and built.antennas[names.index(on)].uses_sky:
             out.append(
                 (
                     where,
-                    f"a placed source's level is read on the reference in force ({names[0]!r}), not on {on!r}; "
-                    "rank against the antenna it was read on, or give the source's fa with measured_at (where it "
-                    "was read)",
+                    f"{on!r} is set under the site's noise (steered or phased for it), so a placed source's level "
+                    "cannot be read on it; name the antenna it was read on as it stands, or give the source's fa "
+                    "with measured_at (where it was read)",
                 )
             )
     return out

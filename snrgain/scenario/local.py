@@ -37,16 +37,20 @@ def local_levels_readable(
         if src.position_m is not None:
             from snrgain.model import placed
 
-            if not placed.hears(reference, src, freq_hz, ref_m):
+            for ant in (reference,) if on is reference else (reference, on):  # its pickup is carried from both
+                if placed.hears(ant, src, freq_hz, ref_m):
+                    continue
+                who = f"the reference antenna ({ant.family})" if ant is reference else f"{ant.name!r} ({ant.family})"
                 out.append(
                     (
                         f"{where}.level",
-                        f"the reference antenna ({reference.family}) picks up nothing of a {src.polarisation} "
-                        "source where it stands, so a level read on it cannot be placed; give the level as fa, "
-                        "or the polarisation the reference hears (a horizontal source broadside to a vertical "
-                        "reference gives it no vertical field: check its orientation)",
+                        f"{who} picks up nothing of a {src.polarisation} source where it stands, so a level read "
+                        f"on {'it' if ant is on else repr(on.name)} cannot be placed; give the level as fa, or the "
+                        "polarisation the antenna hears (a horizontal source broadside to a vertical gives it no "
+                        "vertical field: check its orientation)",
                     )
                 )
+                break
             continue
         d = compact_source_directions(src.bearing_rad, src.elevation_rad, src.spread_rad)
         if not np.any(on.gain_linear(freq_hz, d.azimuth_rad, d.elevation_rad) > MIN_READING_GAIN):

@@ -35,6 +35,7 @@ import numpy as np
 
 from snrgain.errors import ScenarioError, SpecError
 from snrgain.records import record
+from snrgain.scenario.feedline import FEED_LINE_KEY
 
 SECTIONS = ("site", "band", "time", "receiver", "chain", "noise", "uncertainty", "compute")
 """Tables of the scenario that a sweep may vary besides the antennas."""
@@ -231,13 +232,14 @@ class Study:
 
     @property
     def fast(self) -> bool:
-        """Only candidates' own keys vary (not their chains, not the antenna ranked against), and no spread is
-        asked: the shared part is computed once."""
+        """Only candidates' own keys vary (not their chains or feed lines, not the antenna ranked against), and no
+        spread is asked: the shared part is computed once."""
         return not self.spread and all(
             v.table not in SECTIONS
             and v.table != "reference"
             and v.table != self.reference
             and not v.key.startswith("chain")
+            and v.key.split(".")[0] != FEED_LINE_KEY
             for v in self.varies
         )
 
@@ -281,10 +283,23 @@ def validate(study: Study) -> None:
             try:
                 study.load(apply(study.data, study.varies, values))
             except ScenarioError as exc:
+                _unvaried_fails(study, exc)
                 problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
                 raise VaryError(vary.text, f"with {_shown(value)} the scenario is invalid: {problems}") from None
             except (SpecError, ValueError) as exc:
                 raise VaryError(vary.text, f"with {_shown(value)}: {exc}") from None
+
+
+def _unvaried_fails(study: Study, exc: ScenarioError) -> None:
+    """Raise the scenario's own error when the file as written (with the command's options) fails with every problem
+    a design failed with: those are not the varied value's doing, and are said as rank says them."""
+    try:
+        study.load(study.data)
+    except ScenarioError as own:
+        if set(exc.problems) <= set(own.problems):
+            raise own from None
+    except (SpecError, ValueError):
+        pass
 
 
 def _shown(value) -> str:
@@ -321,13 +336,19 @@ class _Shared:
         sc = self.sc
         k = self.names.index(name)
         spec = dict(data["candidate"][self.tables.index(name)])  # by place: a design may rename it
-        for key in ("chain", "place"):  # the candidate's own chain is the scenario's; its place is layout's
+        # the candidate's own chain is the scenario's; its place is layout's; its feed line the one load resolved
+        for key in ("chain", "place", FEED_LINE_KEY):
             spec.pop(key, None)
         base = Path(self.study.base_dir) if self.study.base_dir else None
         ant = antenna_from_table(
             spec, f"candidate {name!r}", site_ground=self.raw_ground, base_dir=base, freq_hz=sc.freq_hz
         )
         sub = pipeline.with_candidates(sc, [ant], 1 + k)
+        # Its feed line is scored as rank scores it: the line load resolved for the candidate (its own keys varied make
+        # every design a full run, Study.fast), under the design's name, its run starting where the design stands
+        # (snrgain.model.feedline).
+        line = sc.feed_lines.get(name)
+        sub = replace(sub, feed_lines={} if line is None else {ant.name: line})
         sub = pipeline.steer(pipeline.with_structures(sub), self.grid, self.skies)
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
         return pipeline.antenna_results(sub, p, self.skies)[1]
