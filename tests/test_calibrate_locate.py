@@ -295,6 +295,76 @@ def test_an_outlier_is_named_not_called_converged():
     assert [o[0] for o in res.outliers] == ["loop 60"]
 
 
+def _loop_file(levels, vertical):
+    """A locate readings file at 3.55 MHz: a 1 m loop turned 0-150 deg in 30 deg steps, and a 20 m vertical."""
+    head = (
+        'frequency = "3.55 MHz"\nbandwidth = "500 Hz"\nground = "moist loam"\n\n[antenna.loop]\n'
+        'family = "small-loop"\nwidth = "1 m"\nloop_height = "1 m"\nheight = "1.5 m"\n\n'
+        '[antenna.vertical]\nfamily = "vertical"\nheight = "20 m"\n'
+    )
+    loop = "".join(
+        f'\n[[reading]]\nantenna = "loop"\nbearing = {b}\nlevel = "{lv} dBm"\n'
+        for b, lv in zip(range(0, 180, 30), levels)
+    )
+    return head + loop + f'\n[[reading]]\nantenna = "vertical"\nlevel = "{vertical} dBm"\n'
+
+
+# Loop readings that peak near 100 deg and a vertical read 8-9 dB under what they imply: the source outweighs any
+# background in every reading, so the fit leaves the background anywhere far below (invented readings).
+PEAKED = _loop_file([-111.5, -109.0, -103.5, -100.6, -100.4, -103.8], -86)
+
+
+def test_an_undetermined_background_is_said_and_leaves_the_bearing_found(tmp_path):
+    # The background's near-zero Jacobian column made the uncertainties singular: the fit was called failed ("do
+    # not constrain a direction", bearing +- inf) though the loop readings peak clearly; and the vertical's miss was
+    # not named.  Now the background is said to be not determined and held out of the uncertainties.
+    rf = tmp_path / "r.toml"
+    rf.write_text(PEAKED)
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["ok"] and data["background_determined"] is False and data["background_fa_db"] is None
+    s = data["sources"][0]
+    assert abs((s["bearing_deg"] - 100.0 + 90) % 180 - 90) < 10 and s["bearing_sigma_deg"] < 20
+    assert [o["label"] for o in data["outliers"]] == ["vertical"] and "vertical (+8." in data["message"]
+    assert any("background is not determined" in n for n in data["notes"])
+    table = CliRunner().invoke(cli, ["locate", str(rf)]).stdout
+    assert "diffuse background: not determined" in table and "inf" not in table
+    (row,) = [ln for ln in table.splitlines() if ln.strip().startswith("vertical")]
+    assert "missed by +8." in row
+
+
+def test_a_background_quieter_than_any_site_is_said():
+    loops = [from_spec({**LOOP, "bearing": b}) for b in range(0, 180, 20)]
+    res = locate(_synth(loops, bearing=60.0, fa_src=30.0, fa_bg=15.0), freq_hz=F, bandwidth_hz=500.0)
+    assert res.ok and res.background_determined and res.background_fa_db == pytest.approx(15.0, abs=1.5)
+    assert any("quiet rural" in n and "no site is that quiet" in n for n in res.notes)
+    res = locate(_synth(loops, bearing=60.0), freq_hz=F, bandwidth_hz=500.0)  # Fa 55 dB: a plausible site
+    assert res.ok and res.background_determined and not res.notes
+
+
+def test_a_failed_fit_writes_nothing_and_exits_1_either_way(tmp_path):
+    # Loop readings that zig-zag with the loop's turning: the bearing's uncertainty passes 45 deg.  The fit fails the
+    # same way with or without --write (exit 1), names its cause and its misses, and leaves no plot or copy.
+    rf = tmp_path / "r.toml"
+    rf.write_text(_loop_file([-104.0, -109.0, -103.0, -108.0, -103.0, -108.5], -78))
+    png, copy = tmp_path / "dir.png", tmp_path / "copy.toml"
+    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"
+    runs = [
+        ["locate", str(rf), "--plot", str(png)],
+        ["locate", str(rf), "--plot", str(png), "--scenario", str(base), "--write", str(copy)],
+        ["locate", str(rf), "--format", "json"],
+    ]
+    for args in runs:
+        res = CliRunner().invoke(cli, args)
+        assert res.exit_code == 1, res.output
+        assert "bearing's uncertainty is" in res.stderr and "no file written" in res.stderr
+        assert not png.exists() and not copy.exists()
+    data = json.loads(res.stdout)
+    assert not data["ok"] and "readings scatter" in data["message"] and data["outliers"]
+    assert all(o["label"] in data["message"] for o in data["outliers"])
+
+
 def test_locate_writes_a_placed_source_and_replaces_one_of_the_same_name(tmp_path):
     runner = CliRunner()
     ex = runner.invoke(cli, ["locate", "--example"]).stdout
