@@ -421,3 +421,60 @@ def test_calibrate_writes_the_measured_line_into_one_antenna(tmp_path):
         )
         assert bad.exit_code == 2 and message in bad.stderr
     assert runner.invoke(cli, ["calibrate", str(rf), "--into", "BOG west"]).exit_code == 2
+
+
+def _open_short_text(vf, att_db_per_100m, z0, length_m, freqs_hz):
+    """[[open_short]] entries for a line of the given velocity factor, attenuations [dB/100 m] and Z0 (the textbook
+    Zoc = Z0 coth(gamma L), Zsc = Z0 tanh(gamma L))."""
+    out = ""
+    for f, att in zip(freqs_hz, att_db_per_100m):
+        gamma = att / 100.0 / (20 * np.log10(np.e)) + 1j * 2 * np.pi * f / (C_M_PER_S * vf)
+        t = np.tanh(gamma * length_m)
+        zo, zs = z0 / t, z0 * t
+        out += (
+            f'\n[[open_short]]\nfrequency = "{f / 1e6:g} MHz"\nopen = [{zo.real:.2f}, {zo.imag:.2f}]\n'
+            f"short = [{zs.real:.2f}, {zs.imag:.2f}]\n"
+        )
+    return out
+
+
+FAST_BOG = '[wire]\nfamily = "bog"\nlength = "70 m"\ngauge = 14\n' + _open_short_text(
+    0.6, (5.0, 7.2), 300.0, 70.0, (0.95e6, 1.83e6)
+)
+"""Readings of a BOG whose line is faster than the wire as described gives over any soil (invented)."""
+
+
+def test_calibrate_says_a_fit_at_a_bound_is_no_ground_and_where_the_held_ground_came_from(tmp_path):
+    # The permittivity ran to 1 (air's) and was offered as a ground to paste, with +- and no word; the height fit
+    # said "over moist loam as given" though the file gives no ground; with --scenario it still held moist loam.
+    rf = tmp_path / "r.toml"
+    rf.write_text(FAST_BOG)
+    runner = CliRunner()
+    res = runner.invoke(cli, ["calibrate", str(rf), "--expected-vf", "0.6", "--format", "json"])
+    assert res.exit_code == 0, res.output
+    g = json.loads(res.stdout)["fitted_ground"]
+    assert g["at_bound"] == ["permittivity low"] and g["scenario_value"] is None and g["permittivity_sigma"] is None
+    assert "lowest value the fit allows (1, air's)" in g["not_usable_because"]
+    table = runner.invoke(cli, ["calibrate", str(rf), "--expected-vf", "0.6"]).stdout
+    assert "[site] ground =" not in table and "warning: the permittivity ran to the lowest" in table
+    assert "over moist loam (the default: the readings' [wire] gives no ground)" in table and "as given" not in table
+    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # [site] ground = "moist clay"
+    out = tmp_path / "o.toml"
+    args = ["calibrate", str(rf), "--expected-vf", "0.6", "--scenario", str(base), "--write", str(out)]
+    res = runner.invoke(cli, args)
+    assert res.exit_code == 2 and "not a ground to use" in res.stderr and not out.exists()
+    res = runner.invoke(cli, [*args, "--into", "BOG west"])  # the measured line is still good to write
+    assert res.exit_code == 0, res.output
+    assert "over moist clay (the scenario's [site] ground)" in res.stdout and out.exists()
+    # a ground the readings' [wire] gives is the one held, scenario or not
+    rf.write_text(FAST_BOG.replace("gauge = 14", 'gauge = 14\nground = "sandy soil"'))
+    res = runner.invoke(cli, [*args, "--into", "BOG west", "--overwrite"])
+    assert "over sandy soil (as given in the readings' [wire])" in res.stdout
+
+
+def test_a_fit_inside_its_range_is_a_ground_to_write():
+    spec = {"family": "bog", "length": "60 m", "ground": "moist loam"}
+    truth = from_spec(spec)
+    pairs = [cal.OpenShort(f, *_readings_of(truth.line(f), 60.0)) for f in (1.83e6, 3.6e6)]
+    res = cal.calibrate(cal.WireReadings(truth, pairs), expected_velocity_factor=0.5)
+    assert res.fit.usable and res.fit.at_bound == () and res.as_dict()["fitted_ground"]["scenario_value"]
