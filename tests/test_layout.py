@@ -1,6 +1,7 @@
 """snrgain layout: placements on the lot (shapely checks), against random valid placements, and its command."""
 
 import json
+import tomllib
 
 import numpy as np
 import pytest
@@ -218,7 +219,7 @@ def test_the_rules_worked_on_many_designs_at_once_match_one_by_one(name):
     )
     data["site"]["tx_clearance"] = "30 m"
     pb = Problem(load(data), data, base_dir=base)
-    assert [name for name, _ in pb.fixed_spots] == ["fixed pair"]
+    assert [name for name, _ in pb.fixed_spots] == ["fixed pair", data["reference"]["name"]]  # the TX vertical too
     for i in range(len(pb.names)):
         pairs, points = pb.grid_designs(i)
         designs = [Design(pb.names[i], e, n, b, ln) for b, ln in pairs[::3] for e, n in points]
@@ -351,6 +352,26 @@ def test_a_placeable_antenna_with_a_feed_line_is_laid_out_and_ranked_as_laid(tmp
     pac = best["Beverage Pacific"]
     # (the written file rounds places to 0.1 m and bearings to 0.1 deg)
     assert nominal[("Beverage Pacific", pac["target"])] == pytest.approx(pac["snr_gain_db"], abs=0.01)
+
+
+def test_the_transmitting_vertical_stands_where_written_and_keeps_its_10_m():
+    # without a given clearance a design may stand where the vertical's computed cost allows, but never within
+    # WIRE_SEPARATION_M of the vertical itself: the model of that cost is checked against NEC-2 from 10 m, and a wire
+    # on the ground over the vertical's radials is no place for a receiving antenna; the same rule as for any
+    # antenna that stays where written, in violations() and its array form alike
+    from snrgain.tools.layout import Design
+
+    text = (DATA / FILES[1]).read_text(encoding="utf-8").replace('tx_clearance = "30 m"\n', "", 1)
+    data = tomllib.loads(text)
+    problem = Problem(load(data), data)
+    rule = "10 m from the antenna '80 m vertical'"
+    near = Design("BOG west", 31.0, 58.0, np.radians(100.0), 40.0)  # its feed 6.3 m from the vertical at (25, 60)
+    assert problem.violations(near)[rule] == pytest.approx(10.0 - np.hypot(6.0, 2.0))
+    assert problem.violations_many([near])[0] == problem.violations(near)
+    assert rule not in problem.violations(Design("BOG west", 45.0, 60.0, np.radians(100.0), 40.0))
+    for lay in problem.search(keep=3):
+        for d in lay.designs:
+            assert problem.footprint(d).distance(problem.tx) >= 10.0 - 1e-9
 
 
 def test_a_placeable_antenna_with_a_feed_line_needs_a_start_and_is_told_why(tmp_path):

@@ -152,3 +152,29 @@ def test_no_plan_no_clearance_warning():
     # relative to itself, so its element at [0, 0] is not "at the vertical" (the Marrow Fen demo's case).
     r = snrgain.evaluate(SCENARIOS / "marrow-fen.toml")
     assert not any(n.code == "near-tx-vertical" for n in r.notices)
+
+
+def test_a_local_source_that_is_most_of_a_candidates_noise_is_said():
+    """``local-source-dominates``: the TV (fa 60 inside the house) read by a short vertical 10 m from it is most of
+    its noise; the notice's numbers are the candidate's own noise by component (medians over the hours, in power),
+    and it names a candidate exactly where the source lies 6 dB or more above the rest (the Beverage far from it is
+    not named)."""
+    import numpy as np
+
+    c = '[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\nposition = [75, 55]\n'
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates=c))
+    said = {n.antenna: n.values for n in r.notices if n.code == "local-source-dominates"}
+    assert "whip" in said
+    for a in r.candidates:
+        watts = {k: 10 ** (np.asarray(v, dtype=float) / 10) for k, v in a.noise_by_component_dbm.items()}
+        src = 10 * np.log10(np.median(watts["tv"]))
+        rest = 10 * np.log10(np.median(sum(w for k, w in watts.items() if k != "tv")))
+        assert (a.name in said) == (src - rest >= 6.0)
+        if a.name in said:
+            assert said[a.name]["source"] == "tv"
+            assert said[a.name]["source_dbm"] == pytest.approx(src, abs=1e-9)
+            assert said[a.name]["over_db"] == pytest.approx(src - rest, abs=1e-9)
+    from snrgain.outputs.messages import notice_text
+
+    text = notice_text(next(n for n in r.notices if n.code == "local-source-dominates" and n.antenna == "whip"))
+    assert text.startswith("whip: the local source 'tv' is most of its noise (")

@@ -187,3 +187,30 @@ def test_the_phase_search_reaches_the_best_phases_of_a_brute_force_grid():
 
         fd = [(r(phi + h * e) - r(phi - h * e)) / (2 * h) for e in np.eye(2)]
         assert np.allclose(fd, 0.0, atol=1e-6 * best)
+
+
+def test_phasing_lines_are_the_shortest_that_give_the_phases():
+    # A lag is a phase: a whole period can come off any line.  The lines start from the element that makes the
+    # longest line shortest (brute force over every element as the start), and every pair of elements keeps its
+    # phase difference (mod 360 deg); a four-square's 0/90/180/357 deg was lines of 0 to 357 deg, now 0 to 183.
+    from snrgain.antennas.array import shortest_lags
+
+    w = np.exp(-1j * np.radians([0.0, 90.0, 180.0, 357.0]))
+    assert np.degrees(shortest_lags(w)) == pytest.approx([3.0, 93.0, 183.0, 0.0])
+    assert np.degrees(shortest_lags(np.exp(-1j * np.radians([0.0, 90.0, 180.0, 270.0])))) == pytest.approx(
+        [0.0, 90.0, 180.0, 270.0]
+    )  # a tie: element 1 stays the start
+    rng = np.random.default_rng(7)
+    for _ in range(200):
+        w = rng.uniform(0.5, 1.0, 4) * np.exp(1j * rng.uniform(-np.pi, np.pi, 4))
+        lag = shortest_lags(w)
+        assert lag.min() == 0.0 and np.all(lag < 2 * np.pi)
+        raw = np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi)
+        best = min(np.max(np.mod(raw - raw[k], 2 * np.pi)) for k in range(4))
+        assert lag.max() == pytest.approx(best, abs=1e-12)
+        turn = np.mod(np.subtract.outer(lag, lag) - np.subtract.outer(raw, raw) + np.pi, 2 * np.pi) - np.pi
+        assert np.abs(turn).max() < 1e-12
+    auto = _pair(LAM / 8)
+    _rdf(auto)  # steered at F
+    d = auto.describe()
+    assert max(d["delays_ns"]) <= 0.5 / F * 1e9 + 1e-9  # a pair's lines never pass half a period

@@ -457,7 +457,7 @@ class Array(Antenna):
         if f is None:
             return out  # optimised weights not yet chosen: no frequency seen
         w = self.weights_at(f)
-        lag = np.round(np.degrees(np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi)), 9)
+        lag = np.round(np.degrees(shortest_lags(w)), 9)
         out.update(
             steered_at_hz=f,
             delays_ns=[float(t * 1e9) for t in self.effective_delays_s(f)],
@@ -472,12 +472,33 @@ class Array(Antenna):
     def effective_delays_s(self, freq_hz: float) -> np.ndarray:
         """Each element's delay with its phase turned into time at ``freq_hz``, the earliest element at 0 [s]: what
         the phasing lines must delay (as given: tau + phase / omega; optimised: the phase lag over omega)."""
-        if self.optimised:
-            w = self.weights_at(freq_hz)
-            d = np.mod(-np.angle(w * np.conj(w[0])), 2 * np.pi) / (2 * np.pi * freq_hz)
+        if self.optimised:  # phases found at one frequency: the shortest lines that give them (shortest_lags)
+            d = shortest_lags(self.weights_at(freq_hz)) / (2 * np.pi * freq_hz)
         else:
             d = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in self.weights])
         return d - d.min()
+
+
+def shortest_lags(weights) -> np.ndarray:
+    """Each element's phase lag [rad] in [0, 2 pi) for complex ``weights``, counted from the element that makes the
+    largest lag smallest: a lag is a phase, so a whole period can be taken off any line (the longest line then spans
+    the lags' circle less its widest gap).  Lags of 0 and 357 deg are 3 deg and 0 (lines of 2 ns and none at 3.5 MHz,
+    not 0 and 281 ns); the first element is the start where that is as short (ties keep it at 0)."""
+    w = np.asarray(weights, dtype=complex)
+
+    def lags_from(k):
+        lag = np.mod(-np.angle(w * np.conj(w[k])), 2 * np.pi)
+        lag[k] = 0.0  # |w_k|^2, real but for a rounding of its imaginary part (a fused multiply-add)
+        return np.where(lag > 2 * np.pi - 1e-12, 0.0, lag)  # a lag a rounding short of a period is none
+
+    lag = lags_from(0)
+    order = np.argsort(lag, kind="stable")
+    s = lag[order]
+    gaps = np.append(np.diff(s), 2 * np.pi - s[-1] + s[0])  # gap after each sorted lag, the last one round the circle
+    widest = int(np.argmax(gaps))
+    if gaps[widest] > gaps[-1] + 1e-9:  # strictly wider than the one before 0: start after it
+        lag = lags_from(int(order[(widest + 1) % s.size]))
+    return lag
 
 
 def placement_problems(positions, amplitudes) -> list[tuple[str, str]]:

@@ -40,9 +40,10 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
 
     A candidate with  place = { bearing = ["20 deg", "70 deg"], length = ["150 m", "300 m"] }  may stand
     anywhere on [site] lot, outside [site] keep_out areas, tx_clearance from the transmitting vertical
-    when given (else half a wavelength for long wires; a loop, vertical or array is scored less what the
-    vertical costs it there, computed), 10 m from any other wire and from the antennas that stay where
-    written (an array's elements, a vertical, a loop); its bearing and length stay in their ranges
+    when given, 10 m from any other wire and from the antennas that stay where written (the transmitting
+    vertical, an array's elements, a vertical, a loop); each is scored less what the vertical costs it
+    there, computed (a two-wire line's reversed port and pattern tables, whose cost is not computed, keep
+    half a wavelength from it instead); its bearing and length stay in their ranges
     (fixed where none is given).  Each is scored by its nominal SNR gain over the reference toward the target
     nearest its bearing, with placed noise sources ([[noise.local]] position = [east, north]) heard where
     it stands.  The search is a grid with a local refinement: the same file gives the same layout.

@@ -26,7 +26,8 @@ class Notice:
     costs more than 1 dB of SNR gain; snrgain.model.feedline), ``feed-line-ground-assumed`` (an antenna whose ground
     where its feed line's shield ends is snrgain's assumption: a phasing unit's; snrgain.model.feedline),
     ``feed-line-near-tx-vertical`` (distance_m, clearance_m: a feed line's run within the tx_clearance the user gives;
-    snrgain.decide.lot).
+    snrgain.decide.lot), ``local-source-dominates`` (source, source_dbm, rest_dbm, over_db: a candidate whose loudest
+    local source is 6 dB or more above the rest of its noise; snrgain.decide.decisions).
     """
 
     code: str

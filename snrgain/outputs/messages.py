@@ -114,6 +114,18 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "or protect the receiver's input while transmitting (a relay that opens and grounds the receive line, "
             "sequenced so it switches before the transmitter keys, is common practice; follow the equipment's ratings)"
         )
+    if n.code == "local-source-dominates":
+        rest = (
+            f"against {v['rest_dbm']:.1f} dBm from the sky and the other sources"
+            if np.isfinite(v["rest_dbm"])
+            else "and nothing else is heard"
+        )
+        return (
+            f"{n.antenna}: the local source {v['source']!r} is most of its noise ({v['source_dbm']:.1f} dBm {rest}, "
+            "medians over the hours): its SNR gain rests on how it "
+            "hears that source, not on its directivity toward the sky; a null toward the source, another place, or "
+            "quieting the source gains more than a sharper pattern"
+        )
     if n.code == "feed-line-cost":
         choke = (
             f"a common-mode choke of about {v['choke_ohm']:.0f} ohm at the antenna puts it {v['quiet_below_db']:g} dB "

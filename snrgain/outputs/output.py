@@ -517,7 +517,9 @@ def ranking_table(results: Results, *, build: bool = False):
         parts.append(build_text(r))
     parts.append(
         Text(
-            "RDF on the trade's scale (gain toward the target over the gain averaged over the whole sphere); "
+            "RDF on the trade's scale (gain toward the target, weighted over its arrival elevations, over the gain "
+            "averaged over the whole sphere: toward a low target it reads lower than an RDF at 20 deg, the elevation "
+            "of the transmitting vertical's figures and of auto steering); "
             "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
             "hour); '!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the "
             "target ('none' if no gain can).",

@@ -45,13 +45,36 @@ MODELS = [
         "normalised to P.372's reference monopole.",
     ),
     (
+        "Placed noise sources",
+        "A short vertical or horizontal dipole over the lossy earth: within 3 km the exact Sommerfeld integrals "
+        "(Sommerfeld 1909/1949, Banos 1966), near field included, beyond them the image with Norton's surface wave "
+        "(Norton 1936-37). Each antenna standing at a position reads the field where it stands: a long wire through "
+        "its line model driven along its length and up its leads, a vertical through its wire's solved current, "
+        "loops and arrays through their own currents (reciprocity); checked against NEC-2.",
+    ),
+    (
         "Antennas",
         "Vertical: sinusoidal current with Fresnel ground reflection and a radial-loss resistance. "
         "Long wires: transmission-line model on the exact mode of a wire over lossy ground (Sommerfeld's potentials "
         "in Wait's 1972 line-source form; the closed form of Deri et al. 1981 as an option), checked against NEC-2. "
         "Arrays: complex responses combined with their weights; coupled verticals by the induced-EMF method; "
-        "auto steering by maximum-SNR weights (Van Trees 2002). Small loop: magnetic dipole over ground (Kraus). "
-        "Tables: interpolated as given.",
+        "auto steering by default the phases of highest RDF toward the bearing, or the maximum-SNR weights under "
+        "the site's sky (Van Trees 2002). Small loop: magnetic dipole over ground (Kraus). Tables: interpolated as "
+        "given.",
+    ),
+    (
+        "Transmitting vertical and structures",
+        "The vertical next door (and each structure given) as a scatterer: its effective height and induced-EMF "
+        "self impedance and near field (Schelkunoff and Friis 1952; Balanis 2005), loaded at its base by the "
+        "transmitter's 50 ohm or detuned; its re-radiation is added to every antenna's response on the plan; "
+        "checked against NEC-2 from 10 m.",
+    ),
+    (
+        "Feed lines",
+        "A candidate's coax shield as a single-wire line over the earth (the long wires' line model at the run's "
+        "height), driven by the sky and by placed sources along its route, loaded by the station ground and the "
+        "choke or isolation at the antenna; the share of its current in the receiver's load added to the antenna's "
+        "noise; checked against NEC-2.",
     ),
     (
         "Receiving chain",
@@ -60,11 +83,11 @@ MODELS = [
     ),
     (
         "Limits",
-        "Far-field plane waves (a source known by its bearing treated as distant; a placed source's field falls with "
-        "distance by Norton's ground wave, each antenna reading it through its pattern); low wires only (up to 0.1 "
-        "wavelength); "
-        "the storm-direction model is coarse; P.372's Section 8 variant for deviations above 12 dB is not implemented; "
-        "thermal noise of losses neglected.",
+        "A source known only by its bearing is taken as distant (plane waves); low wires only (up to 0.1 "
+        "wavelength); the transmitting vertical's and structures' current is a sinusoid (up to 0.3 wavelength "
+        "tall), a top hat taken as the length it adds; the storm-direction model is coarse; P.372's Section 8 "
+        "variant for deviations above 12 dB is not implemented; thermal noise of losses neglected. The README's "
+        "'Models and their sources' and 'Limits of validity' give every model, check and tolerance.",
     ),
 ]
 

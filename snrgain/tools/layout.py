@@ -7,8 +7,9 @@ lot``) outside the keep-out areas and clear of the transmitting vertical
 reversed port and pattern tables keep half a wavelength and every other
 antenna's score carries what the vertical,
 in ``[site] tx_state``, costs its RDF where it stands: snrgain.model.scatter),
-at least 10 m from any other wire (common
-practice: closer, wires couple), with its bearing
+at least 10 m from any other wire and from the antennas that stay where written, the
+transmitting vertical among them (common practice: closer, wires couple; the vertical's
+computed cost is checked against NEC-2 from 10 m), with its bearing
 and length inside the ranges given (fixed where none is given).
 
 Its worth is its nominal SNR gain over the reference toward the target
@@ -196,6 +197,8 @@ class Problem:
             if shape is not None and shape.length == 0 and not any(shape.equals(t) for t in spots.values()):
                 st = switched_state(a)
                 spots[st.group if st is not None else a.name] = shape
+        if self.tx is not None and not any(self.tx.equals(t) for t in spots.values()):
+            spots.setdefault(tx_ant.name, self.tx)  # the transmitting vertical stays where written too
         self.fixed_spots = list(spots.items())
         self._sky: dict[tuple, tuple] = {}
         self._scored: dict[tuple, float] = {}
