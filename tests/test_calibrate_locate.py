@@ -295,6 +295,76 @@ def test_an_outlier_is_named_not_called_converged():
     assert [o[0] for o in res.outliers] == ["loop 60"]
 
 
+def _loop_file(levels, vertical):
+    """A locate readings file at 3.55 MHz: a 1 m loop turned 0-150 deg in 30 deg steps, and a 20 m vertical."""
+    head = (
+        'frequency = "3.55 MHz"\nbandwidth = "500 Hz"\nground = "moist loam"\n\n[antenna.loop]\n'
+        'family = "small-loop"\nwidth = "1 m"\nloop_height = "1 m"\nheight = "1.5 m"\n\n'
+        '[antenna.vertical]\nfamily = "vertical"\nheight = "20 m"\n'
+    )
+    loop = "".join(
+        f'\n[[reading]]\nantenna = "loop"\nbearing = {b}\nlevel = "{lv} dBm"\n'
+        for b, lv in zip(range(0, 180, 30), levels)
+    )
+    return head + loop + f'\n[[reading]]\nantenna = "vertical"\nlevel = "{vertical} dBm"\n'
+
+
+# Loop readings that peak near 100 deg and a vertical read 8-9 dB under what they imply: the source outweighs any
+# background in every reading, so the fit leaves the background anywhere far below (invented readings).
+PEAKED = _loop_file([-111.5, -109.0, -103.5, -100.6, -100.4, -103.8], -86)
+
+
+def test_an_undetermined_background_is_said_and_leaves_the_bearing_found(tmp_path):
+    # The background's near-zero Jacobian column made the uncertainties singular: the fit was called failed ("do
+    # not constrain a direction", bearing +- inf) though the loop readings peak clearly; and the vertical's miss was
+    # not named.  Now the background is said to be not determined and held out of the uncertainties.
+    rf = tmp_path / "r.toml"
+    rf.write_text(PEAKED)
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["ok"] and data["background_determined"] is False and data["background_fa_db"] is None
+    s = data["sources"][0]
+    assert abs((s["bearing_deg"] - 100.0 + 90) % 180 - 90) < 10 and s["bearing_sigma_deg"] < 20
+    assert [o["label"] for o in data["outliers"]] == ["vertical"] and "vertical (+8." in data["message"]
+    assert any("background is not determined" in n for n in data["notes"])
+    table = CliRunner().invoke(cli, ["locate", str(rf)]).stdout
+    assert "diffuse background: not determined" in table and "inf" not in table
+    (row,) = [ln for ln in table.splitlines() if ln.strip().startswith("vertical")]
+    assert "missed by +8." in row
+
+
+def test_a_background_quieter_than_any_site_is_said():
+    loops = [from_spec({**LOOP, "bearing": b}) for b in range(0, 180, 20)]
+    res = locate(_synth(loops, bearing=60.0, fa_src=30.0, fa_bg=15.0), freq_hz=F, bandwidth_hz=500.0)
+    assert res.ok and res.background_determined and res.background_fa_db == pytest.approx(15.0, abs=1.5)
+    assert any("quiet rural" in n and "no site is that quiet" in n for n in res.notes)
+    res = locate(_synth(loops, bearing=60.0), freq_hz=F, bandwidth_hz=500.0)  # Fa 55 dB: a plausible site
+    assert res.ok and res.background_determined and not res.notes
+
+
+def test_a_failed_fit_writes_nothing_and_exits_1_either_way(tmp_path):
+    # Loop readings that zig-zag with the loop's turning: the bearing's uncertainty passes 45 deg.  The fit fails the
+    # same way with or without --write (exit 1), names its cause and its misses, and leaves no plot or copy.
+    rf = tmp_path / "r.toml"
+    rf.write_text(_loop_file([-104.0, -109.0, -103.0, -108.0, -103.0, -108.5], -78))
+    png, copy = tmp_path / "dir.png", tmp_path / "copy.toml"
+    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"
+    runs = [
+        ["locate", str(rf), "--plot", str(png)],
+        ["locate", str(rf), "--plot", str(png), "--scenario", str(base), "--write", str(copy)],
+        ["locate", str(rf), "--format", "json"],
+    ]
+    for args in runs:
+        res = CliRunner().invoke(cli, args)
+        assert res.exit_code == 1, res.output
+        assert "bearing's uncertainty is" in res.stderr and "no file written" in res.stderr
+        assert not png.exists() and not copy.exists()
+    data = json.loads(res.stdout)
+    assert not data["ok"] and "readings scatter" in data["message"] and data["outliers"]
+    assert all(o["label"] in data["message"] for o in data["outliers"])
+
+
 def test_locate_writes_a_placed_source_and_replaces_one_of_the_same_name(tmp_path):
     runner = CliRunner()
     ex = runner.invoke(cli, ["locate", "--example"]).stdout
@@ -351,3 +421,60 @@ def test_calibrate_writes_the_measured_line_into_one_antenna(tmp_path):
         )
         assert bad.exit_code == 2 and message in bad.stderr
     assert runner.invoke(cli, ["calibrate", str(rf), "--into", "BOG west"]).exit_code == 2
+
+
+def _open_short_text(vf, att_db_per_100m, z0, length_m, freqs_hz):
+    """[[open_short]] entries for a line of the given velocity factor, attenuations [dB/100 m] and Z0 (the textbook
+    Zoc = Z0 coth(gamma L), Zsc = Z0 tanh(gamma L))."""
+    out = ""
+    for f, att in zip(freqs_hz, att_db_per_100m):
+        gamma = att / 100.0 / (20 * np.log10(np.e)) + 1j * 2 * np.pi * f / (C_M_PER_S * vf)
+        t = np.tanh(gamma * length_m)
+        zo, zs = z0 / t, z0 * t
+        out += (
+            f'\n[[open_short]]\nfrequency = "{f / 1e6:g} MHz"\nopen = [{zo.real:.2f}, {zo.imag:.2f}]\n'
+            f"short = [{zs.real:.2f}, {zs.imag:.2f}]\n"
+        )
+    return out
+
+
+FAST_BOG = '[wire]\nfamily = "bog"\nlength = "70 m"\ngauge = 14\n' + _open_short_text(
+    0.6, (5.0, 7.2), 300.0, 70.0, (0.95e6, 1.83e6)
+)
+"""Readings of a BOG whose line is faster than the wire as described gives over any soil (invented)."""
+
+
+def test_calibrate_says_a_fit_at_a_bound_is_no_ground_and_where_the_held_ground_came_from(tmp_path):
+    # The permittivity ran to 1 (air's) and was offered as a ground to paste, with +- and no word; the height fit
+    # said "over moist loam as given" though the file gives no ground; with --scenario it still held moist loam.
+    rf = tmp_path / "r.toml"
+    rf.write_text(FAST_BOG)
+    runner = CliRunner()
+    res = runner.invoke(cli, ["calibrate", str(rf), "--expected-vf", "0.6", "--format", "json"])
+    assert res.exit_code == 0, res.output
+    g = json.loads(res.stdout)["fitted_ground"]
+    assert g["at_bound"] == ["permittivity low"] and g["scenario_value"] is None and g["permittivity_sigma"] is None
+    assert "lowest value the fit allows (1, air's)" in g["not_usable_because"]
+    table = runner.invoke(cli, ["calibrate", str(rf), "--expected-vf", "0.6"]).stdout
+    assert "[site] ground =" not in table and "warning: the permittivity ran to the lowest" in table
+    assert "over moist loam (the default: the readings' [wire] gives no ground)" in table and "as given" not in table
+    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # [site] ground = "moist clay"
+    out = tmp_path / "o.toml"
+    args = ["calibrate", str(rf), "--expected-vf", "0.6", "--scenario", str(base), "--write", str(out)]
+    res = runner.invoke(cli, args)
+    assert res.exit_code == 2 and "not a ground to use" in res.stderr and not out.exists()
+    res = runner.invoke(cli, [*args, "--into", "BOG west"])  # the measured line is still good to write
+    assert res.exit_code == 0, res.output
+    assert "over moist clay (the scenario's [site] ground)" in res.stdout and out.exists()
+    # a ground the readings' [wire] gives is the one held, scenario or not
+    rf.write_text(FAST_BOG.replace("gauge = 14", 'gauge = 14\nground = "sandy soil"'))
+    res = runner.invoke(cli, [*args, "--into", "BOG west", "--overwrite"])
+    assert "over sandy soil (as given in the readings' [wire])" in res.stdout
+
+
+def test_a_fit_inside_its_range_is_a_ground_to_write():
+    spec = {"family": "bog", "length": "60 m", "ground": "moist loam"}
+    truth = from_spec(spec)
+    pairs = [cal.OpenShort(f, *_readings_of(truth.line(f), 60.0)) for f in (1.83e6, 3.6e6)]
+    res = cal.calibrate(cal.WireReadings(truth, pairs), expected_velocity_factor=0.5)
+    assert res.fit.usable and res.fit.at_bound == () and res.as_dict()["fitted_ground"]["scenario_value"]

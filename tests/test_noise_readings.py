@@ -224,3 +224,42 @@ def test_bad_inputs_at_the_edges(tmp_path):
     out = CliRunner().invoke(cli, ["noise-readings", WREN, str(tmp_path / "e.toml")])
     assert out.exit_code != 0 and "no [[reading]]" in out.output
     assert CliRunner().invoke(cli, ["noise-readings"]).exit_code == 2
+
+
+def test_readings_below_the_other_noise_are_not_a_fit(tmp_path):
+    """Readings under what the other components alone give (here a given atmospheric Fa 20 dB over the rural
+    man-made curve) drive the fit to the schema's lowest offset with an absurd interval: that is said, with its
+    reasons, and no level, tolerance or move is presented as a result (table and JSON)."""
+    sc = tmp_path / "mono.toml"
+    sc.write_text(MONOPOLE + '\n[noise.atmospheric]\nmodel = "given"\nfa = 80\nupper_decile = 5\nlower_decile = 5\n')
+    t_a, t_e = T0 * 10 ** (60.0 / 10), T0 * (10**1.2 - 1)  # Fa 60 dB: under the atmospheric noise alone
+    y_db = 10 * np.log10((t_a + t_e) / (T0 + t_e))
+    text = "".join(
+        _reading(
+            f"2026-12-02T00:{m:02d}:00Z", f'bandwidth = "2.4 kHz"\nantenna_db = {-110 + y_db + d:.2f}\nload_db = -110'
+        )
+        for m, d in ((10, 0.0), (20, 3.0), (30, -4.0))
+    )
+    (tmp_path / "r.toml").write_text(text)
+    f = nr.fit(nr.load_readings(tmp_path / "r.toml"), sc)
+    assert not f.determined and len(f.not_determined_because) >= 2
+    assert any("lowest offset" in r for r in f.not_determined_because)
+    out = CliRunner().invoke(cli, ["noise-readings", str(sc), str(tmp_path / "r.toml")])
+    assert out.exit_code == 0, out.output
+    assert "not determined by these readings" in out.output and "lowest offset" in out.output
+    assert "-40.0 dB" not in out.output and "(90 %)" not in out.output and "before -> after" not in out.output
+    got = json.loads(
+        CliRunner().invoke(cli, ["noise-readings", str(sc), str(tmp_path / "r.toml"), "--format", "json"]).stdout
+    )
+    assert got["determined"] is False and got["not_determined_because"]
+    assert got["fitted_db"] is None and got["tolerance_90_db"] is None and got["man_made_fa_db"] is None
+    assert got["moves"] is None
+
+
+def test_a_loose_fit_is_not_determined():
+    """The interval threshold alone: a fit inside the range whose 90 % half-width passes MAX_TOLERANCE_DB."""
+    row = {"offset_db": -3.0}
+    f = nr.NoiseFit(0.0, -3.0, 4.0, nr.MAX_TOLERANCE_DB + 0.1, "rural", 1.83e6, [row])
+    assert not f.determined and "wider than +-10 dB" in f.not_determined_because[0]
+    assert nr.NoiseFit(0.0, -3.0, 4.0, nr.MAX_TOLERANCE_DB - 0.1, "rural", 1.83e6, [row]).determined
+    assert nr.NoiseFit(0.0, -3.0, 0.0, float("nan"), "rural", 1.83e6, [row]).determined  # one reading

@@ -53,7 +53,11 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
     Open/short readings give Z0 = sqrt(Zoc Zsc) and tanh(gamma L) = sqrt(Zsc/Zoc): velocity factor,
     attenuation and Z0.  A quarter-wave resonance gives VF = 4 L f / c.  The ground's conductivity and
     permittivity are then fitted so that the wire model reproduces them, with uncertainties; the
-    suggested termination and transformer follow from the measured Z0.  See --example for the file.
+    suggested termination and transformer follow from the measured Z0.  A fit that runs to an end of the
+    range searched (permittivity 1 to 100, conductivity 0.01 mS/m to 10 S/m) is said to be no ground, and
+    --write refuses to write it.  A BOG lying on the soil also gets its height above the soil fitted with the
+    soil held: the readings' [wire] ground if given, else with --scenario the scenario's (the --into
+    candidate's own, else [site]'s), else moist loam; the output says which.  See --example for the file.
     """
     from snrgain.tools import calibrate as cal
 
@@ -61,8 +65,17 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         example_text=cal.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
     ):
         return
+    if into is not None and scenario is None:
+        raise click.UsageError("--into goes with --scenario and --write")
+    sc_data = None
+    if scenario is not None:
+        from snrgain.scenario import read_source
+
+        sc_data, _, _ = read_source(Path(scenario))
     try:
         data = cal.load_readings(readings)
+        if sc_data is not None:  # the wire lies at the scenario's site: over its ground, unless [wire] gives one
+            data = cal.assume_scenario_ground(data, *cal.scenario_ground(sc_data, into))
         count = (
             f"{len(data.open_short)} open/short reading(s), {len(data.resonance_hz)} resonance(s), "
             f"{len(data.sweeps)} sweep(s)"
@@ -72,17 +85,14 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
     except cal.ReadingError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     out = res.as_dict()
-    if into is not None and scenario is None:
-        raise click.UsageError("--into goes with --scenario and --write")
     if scenario is not None:
         text = read_scenario_text(scenario)
         if into is None:
+            if not res.fit.usable:
+                raise ValueError(f"--write: {res.fit.unusable_text()}; no copy written")
             new = cal.with_ground(text, res.fit.scenario_value())
         else:
-            from snrgain.scenario import read_source
-
-            data, _, _ = read_source(Path(scenario))
-            freq = read_frequency(data)
+            freq = read_frequency(sc_data)
             used = cal.nearest_constants(res.constants, freq)
             new = cal.with_measured_line(text, into, used)
             out["written_into"] = into
@@ -128,20 +138,24 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         lines_out.append(" ".join(parts))
         lines_out += [f"    warning: {w}" for w in sw.warnings]
     g = out["fitted_ground"]
-    eps_txt = (
-        f"{g['permittivity']:.3g} (fixed)"
-        if g["permittivity_fixed"]
-        else f"{g['permittivity']:.3g} +- {g['permittivity_sigma']:.2g}"
-    )
+    if g["permittivity_fixed"]:
+        eps_txt = f"{g['permittivity']:.3g} (fixed)"
+    elif g["permittivity_sigma"] is None:
+        eps_txt = f"{g['permittivity']:.3g} (at an end of its range)"
+    else:
+        eps_txt = f"{g['permittivity']:.3g} +- {g['permittivity_sigma']:.2g}"
     lines_out.append(
         f"  fitted ground: conductivity {g['conductivity_s_per_m'] * 1e3:.3g} mS/m (x/÷ "
         f"{g['conductivity_uncertainty_factor']:.2f}), permittivity {eps_txt}; residual rms "
         f"{g['residual_rms']:.2f} (in measurement uncertainties)"
     )
-    lines_out.append(f"  scenario: [site] ground = {res.fit.scenario_value()}")
+    if res.fit.usable:
+        lines_out.append(f"  scenario: [site] ground = {res.fit.scenario_value()}")
+    else:
+        lines_out.append(f"  warning: {res.fit.unusable_text()}")
     if res.height_fit is not None:
         h = res.height_fit
-        over = out["fitted_height"]["ground"]
+        over = f"{cal.ground_name(ant)} ({res.ground_source_text})"
         if h.at_lowest:
             where = "rests on the soil (and the soil is wetter, or the wire slower, than the model has it)"
         elif h.at_highest:
@@ -151,7 +165,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
                 f"sits {100 * h.height_m:.1f} cm above the soil ({100 * h.low_m:.1f}-{100 * h.high_m:.1f} cm), "
                 "the height grass and litter hold it at"
             )
-        lines_out.append(f"  or, over {over} as given: the wire's axis {where}; residual rms {h.residual_rms:.2f}")
+        lines_out.append(f"  or, over {over}: the wire's axis {where}; residual rms {h.residual_rms:.2f}")
     if res.suggested_termination_ohm is not None:
         lines_out.append(
             f"  suggested termination {res.suggested_termination_ohm:.0f} ohm (|Z0| less the far rod); "

@@ -2,14 +2,17 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import click
 
 from snrgain.cli.options import (
+    EXIT_FAILURE,
     FiniteRange,
     check_output,
     emit_json,
+    fail,
     handle_errors,
     plot_option,
     progress,
@@ -48,8 +51,11 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
     steps, fixed directional antennas, the vertical.  The fit uses the antennas' modelled patterns;
     the result gives each bearing with its uncertainty (and the 180 deg ambiguity where the antennas
     cannot tell front from back) and the level as Fa.  A reading the fit misses by more than its
-    uncertainty (default 2 dB) is named.  With at = [east, north] (where the readings were taken) and
-    distance in the file, the source is written to the scenario at its place.  See --example for the file.
+    uncertainty (default 2 dB) is named.  A diffuse background the sources outweigh in every reading is said
+    to be not determined; one far quieter than any site is said too.  With at = [east, north] (where the
+    readings were taken) and distance in the file, the source is written to the scenario at its place.  A fit
+    that finds no direction is reported with its cause and exits 1, writing no file (no plot, no copy).  See
+    --example for the file.
     """
     from snrgain.tools import locate as loc
 
@@ -73,39 +79,70 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
     except loc.LocateError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
+    if res.ok:  # a failed fit writes nothing; a good one writes every output asked for, or none
+        _write_outputs(res, data, plot=plot, scenario=scenario, write_to=write_to, name=name, overwrite=overwrite)
+        if plot is not None:
+            out["plot"] = plot
+        if scenario is not None:
+            out["written"] = write_to
+    if fmt == "json":
+        emit_json(out)
+    else:
+        click.echo("\n".join(_lines(res, out)))
+    if not res.ok:
+        fail("the fit failed (" + res.message.split(";")[0] + "); no file written", EXIT_FAILURE)
+
+
+def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite) -> None:
+    """The plot and the scenario copy: all that can fail on the inputs first, then the files; if the copy cannot
+    be written, a plot this run created is taken away again."""
+    from snrgain.tools import locate as loc
+
+    text = None
+    if scenario is not None:
+        text = loc.with_sources(
+            read_scenario_text(scenario), res, at_m=data.at_m, distances_m=data.distances_m, name=name
+        )
+    created = None
     if plot is not None:
         from snrgain.outputs import plots
 
+        existed = Path(plot).exists()
         plots.save(plots.located_sources(res), plot, overwrite=overwrite)
-        out["plot"] = plot
-    if scenario is not None:
-        text = read_scenario_text(scenario)
-        write_output(
-            write_to,
-            loc.with_sources(text, res, at_m=data.at_m, distances_m=data.distances_m, name=name),
-            overwrite=overwrite,
-        )
-        out["written"] = write_to
-    if fmt == "json":
-        emit_json(out)
-        return
+        created = None if existed else Path(plot)
+    try:
+        if text is not None:
+            write_output(write_to, text, overwrite=overwrite)
+    except BaseException:
+        if created is not None:
+            created.unlink(missing_ok=True)
+        raise
+
+
+def _lines(res, out) -> list[str]:
     lines = [res.message if res.ok else "FIT FAILED: " + res.message]
     for i, s in enumerate(res.sources):
         amb = f" (or {(s.bearing_deg + 180) % 360:.0f} deg)" if s.ambiguous_180 else ""
+        sig = f"+- {s.bearing_sigma_deg:.0f} deg" if math.isfinite(s.bearing_sigma_deg) else "deg, uncertainty unknown"
         lines.append(
-            f"  source {i + 1}: bearing {s.bearing_deg:.0f} +- {s.bearing_sigma_deg:.0f} deg{amb}, "
+            f"  source {i + 1}: bearing {s.bearing_deg:.0f} {sig}{amb}, "
             f"elevation {s.elevation_deg:.0f} deg, Fa {s.fa_db:.1f} dB on P.372's reference monopole"
+            + ("" if res.ok else " (the best fit, not a result)")
         )
+    bg = f"Fa {res.background_fa_db:.1f} dB" if res.background_determined else "not determined"
     lines.append(
-        f"  diffuse background: Fa {res.background_fa_db:.1f} dB; residual rms {res.residual_rms_db:.2f} dB "
-        f"over {len(res.readings_dbm)} readings"
+        f"  diffuse background: {bg}; residual rms {res.residual_rms_db:.2f} dB over {len(res.readings_dbm)} readings"
     )
+    missed = {lab: (m, u) for lab, m, u in res.outliers}
     for entry in out["readings"]:
+        miss = missed.get(entry["label"])
+        flag = "" if miss is None else f"  missed by {miss[0]:+.1f} dB (over its {miss[1]:g} dB)"
         lines.append(
-            f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm"
+            f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm{flag}"
         )
-    if plot:
-        lines.append(f"  wrote {plot}")
-    if scenario:
-        lines.append(f"  wrote {write_to}")
-    click.echo("\n".join(lines))
+    lines += [f"  note: {n}" for n in res.notes]
+    if "plot" in out:
+        lines.append(f"  wrote {out['plot']}")
+    if "written" in out:
+        lines.append(f"  wrote {out['written']}")
+    return lines

@@ -30,7 +30,9 @@ def noise_readings(scenario, readings, example, write_to, overwrite, fmt, p372_d
     frequency.  Through each antenna's modelled gain and its chain (the scenario run at the readings' months and
     hours), the readings give the antenna temperature, the man-made part of it, and so the site's man-made Fa:
     the offset over the environment's P.372 curve, fitted over the readings with its tolerance, and how it moves
-    each candidate's predicted SNR gain.  See --example for the file.
+    each candidate's predicted SNR gain.  Readings that do not determine the level (the fit stopped at an end of
+    the allowed offsets, or its 90 % interval wider than +-10 dB) are said so, with the reason, and no level or
+    move is given.  See --example for the file.
     """
     from pathlib import Path
 
@@ -46,17 +48,20 @@ def noise_readings(scenario, readings, example, write_to, overwrite, fmt, p372_d
     rs = nr.load_readings(readings)
     with progress(None, f"noise-readings: {len(rs)} reading(s) through the pipeline"):
         f = nr.fit(rs, scenario, p372_dir=p372_dir)
+    if write_to is not None and not f.determined:
+        raise ValueError(
+            "--write: the readings do not fix the man-made level: "
+            + "; ".join(f.not_determined_because)
+            + "; no copy written"
+        )
+    out = {**f.as_dict(), "moves": None}
+    if f.determined:  # the moves rest on the fitted level: none from a level the readings do not determine
         from snrgain.scenario import read_source
 
-        data, label, base_dir = read_source(Path(scenario))
-        moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, p372_dir=p372_dir)
-    out = {**f.as_dict(), "moves": moved}
+        with progress(None, "noise-readings: the candidates at the fitted level"):
+            data, label, base_dir = read_source(Path(scenario))
+            out["moves"] = learn.moves(data, base_dir, label, f.before_db, f.offset_db, p372_dir=p372_dir)
     if write_to is not None:
-        if not f.determined:
-            raise ValueError(
-                f"--write: the readings do not fix the man-made level (fit {f.offset_db:+.1f} dB, "
-                f"+-{f.tolerance_db:.1f} dB; see the notes with --format json); no copy written"
-            )
         from snrgain.cli.options import read_scenario_text, write_output
 
         tol = f", +-{f.tolerance_db:.1f} dB (90 %)" if f.tolerance_db == f.tolerance_db else ""
@@ -66,4 +71,8 @@ def noise_readings(scenario, readings, example, write_to, overwrite, fmt, p372_d
     if fmt == "json":
         emit_json(out)
         return
-    click.echo("\n".join(nr.fit_lines(f) + [""] + learn.move_lines(moved)))
+    if out["moves"] is None:
+        moved = ["predicted SNR gains: not moved (no level to move them to: the readings do not determine it)"]
+    else:
+        moved = learn.move_lines(out["moves"])
+    click.echo("\n".join(nr.fit_lines(f) + [""] + moved))

@@ -1181,9 +1181,10 @@ def located_sources(res, *, ax=None):
         ax.plot([th, th], [0, 1], color=f"C{i}", lw=2.5)
         if s.ambiguous_180:
             ax.plot([th + np.pi, th + np.pi], [0, 1], color=f"C{i}", lw=1.5, ls="--", label="180 deg ambiguity")
+    bg = f"Fa {res.background_fa_db:.0f} dB" if getattr(res, "background_determined", True) else "not determined"
     ax.set_title(
         ("Fitted noise direction" if res.ok else "Fit failed: direction not constrained")
-        + f"\n(background Fa {res.background_fa_db:.0f} dB, residual {res.residual_rms_db:.1f} dB)",
+        + f"\n(background {bg}, residual {res.residual_rms_db:.1f} dB)",
         pad=18,
     )
     ax.legend(loc="lower left", bbox_to_anchor=(-0.1, -0.15), fontsize=9)

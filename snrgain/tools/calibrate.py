@@ -141,6 +141,16 @@ def vf_from_quarter_wave(length_m: float, freq_hz: float) -> float:
     return vf
 
 
+CONDUCTIVITY_RANGE_S_PER_M = (1e-5, 10.0)
+"""The conductivities the ground fit searches [S/m] (from very dry ground's hundredth to over sea water's)."""
+PERMITTIVITY_RANGE = (1.0, 100.0)
+"""The relative permittivities the ground fit searches (air's 1 to over water's 81)."""
+AT_BOUND_FRACTION = 1e-3
+"""A fitted value within this fraction of its searched range (in log10 for the conductivity) of an end is taken as
+stopped there by the range: the least-squares search (trust region, kept strictly inside the bounds) ends at such
+a distance from a bound it presses against, far closer than any value's uncertainty."""
+
+
 @record
 class GroundFit:
     """Fitted ground constants with standard uncertainties."""
@@ -152,6 +162,41 @@ class GroundFit:
     permittivity_sigma: float
     residual_rms: float
     fixed_permittivity: bool
+    at_bound: tuple[str, ...] = ()
+    """The constants that ran to an end of the range searched: "conductivity low"/"high", "permittivity low"/"high".
+    Such a fit is not a ground: the readings point outside what the model's soils give."""
+
+    @property
+    def usable(self) -> bool:
+        """Whether the fit is a ground to write into a scenario (no constant at an end of its range)."""
+        return not self.at_bound
+
+    def bound_text(self) -> list[str]:
+        """Each constant at an end of its range, said in words (empty when none)."""
+        out = []
+        for b in self.at_bound:
+            what, end = b.split()
+            if what == "permittivity":
+                value = f"{PERMITTIVITY_RANGE[0 if end == 'low' else 1]:g}" + (", air's" if end == "low" else "")
+            else:
+                value = f"{CONDUCTIVITY_RANGE_S_PER_M[0 if end == 'low' else 1] * 1e3:g} mS/m"
+            word = "lowest" if end == "low" else "highest"
+            out.append(f"the {what} ran to the {word} value the fit allows ({value})")
+        return out
+
+    def unusable_text(self) -> str:
+        """Why the fit is not a ground to use (empty when it is one)."""
+        if self.usable:
+            return ""
+        why = "; ".join(self.bound_text())
+        if "permittivity low" in self.at_bound:
+            hint = (
+                "the readings ask for a faster line than the wire gives over any soil: it likely sits above the soil "
+                "(grass), or its length, height or the phase's branch (--expected-vf) is off"
+            )
+        else:
+            hint = "the readings point outside the soils the model spans: check the wire's description and the readings"
+        return f"{why}: not a ground to use; {hint}"
 
     @property
     def ground(self) -> Ground:
@@ -209,10 +254,11 @@ def fit_ground(
 
     starts = [(-3.0, 5.0), (-2.3, 13.0), (-1.5, 25.0), (-3.7, 3.0)]
     best = None
+    s_lo, s_hi = (float(np.log10(v)) for v in CONDUCTIVITY_RANGE_S_PER_M)
     for s0, e0 in starts:
         x0 = [s0] if permittivity is not None else [s0, e0]
-        lb = [-5.0] if permittivity is not None else [-5.0, 1.0]
-        ub = [1.0] if permittivity is not None else [1.0, 100.0]
+        lb = [s_lo] if permittivity is not None else [s_lo, PERMITTIVITY_RANGE[0]]
+        ub = [s_hi] if permittivity is not None else [s_hi, PERMITTIVITY_RANGE[1]]
         kw = {} if coarse_line is None else {"kwargs": {"line": coarse_line}}
         r = least_squares(residuals, x0, bounds=(lb, ub), x_scale="jac", **kw)
         if best is None or r.cost < best.cost:
@@ -231,7 +277,16 @@ def fit_ground(
     log_sigma_sd = float(np.sqrt(cov[0, 0]))
     eps = permittivity if permittivity is not None else float(best.x[1])
     eps_sd = 0.0 if permittivity is not None else float(np.sqrt(cov[1, 1]))
-    return GroundFit(float(10 ** best.x[0]), float(10**log_sigma_sd), eps, eps_sd, rms, permittivity is not None)
+    at_bound = []
+    for name, x, lo_, hi_ in zip(("conductivity", "permittivity"), best.x, lb, ub):
+        tol = AT_BOUND_FRACTION * (hi_ - lo_)
+        if x <= lo_ + tol:
+            at_bound.append(f"{name} low")
+        elif x >= hi_ - tol:
+            at_bound.append(f"{name} high")
+    return GroundFit(
+        float(10 ** best.x[0]), float(10**log_sigma_sd), eps, eps_sd, rms, permittivity is not None, tuple(at_bound)
+    )
 
 
 @record
@@ -331,6 +386,13 @@ class WireReadings:
     resonance_hz: list[float] = field(default_factory=list)
     sweeps: list[tuple[Path, str]] = field(default_factory=list)
     """Touchstone files and the far end each was taken with (snrgain.tools.touchstone)."""
+    ground_source: str = "wire"
+    """Where the wire's ground came from: "wire" (the readings' [wire] gives it), "default" (it gives none:
+    :data:`DEFAULT_GROUND`) or "scenario" (the scenario's, :func:`assume_scenario_ground`)."""
+    ground_source_text: str = "as given in the readings' [wire]"
+    """The same in words."""
+    spec: dict = field(default_factory=dict)
+    """The [wire] table as written (with its family), to build the wire again over another ground."""
 
 
 def load_readings(path: str | Path) -> WireReadings:
@@ -409,7 +471,57 @@ def load_readings(path: str | Path) -> WireReadings:
         [OpenShort(r.frequency, r.open, r.short) for r in f.open_short],
         [r.frequency for r in f.resonance],
         sweeps,
+        *(("wire", GIVEN_TEXT) if "ground" in f.wire else ("default", DEFAULT_TEXT)),
+        spec,
     )
+
+
+DEFAULT_GROUND = "moist loam"
+"""The ground of a wire whose readings file gives none (the antennas' own default)."""
+GIVEN_TEXT = "as given in the readings' [wire]"
+DEFAULT_TEXT = "the default: the readings' [wire] gives no ground"
+
+
+def scenario_ground(data: dict, into: str | None = None) -> tuple[Any, str]:
+    """The ground a scenario gives the wire, as written (a class name or a table of constants), with where it came
+    from in words: the candidate ``into``'s own ground, else [site]'s, else the scenario's default."""
+    from snrgain.scenario.site import raw_ground
+
+    if into is not None:
+        for c in data.get("candidate", []):
+            if isinstance(c, dict) and c.get("name") == into and "ground" in c:
+                return c["ground"], f"candidate {into!r}'s ground in the scenario"
+    site = data.get("site", {})
+    if isinstance(site, dict) and "ground" in site:
+        return raw_ground(site), "the scenario's [site] ground"
+    return DEFAULT_GROUND, "the scenario's default: its [site] gives no ground"
+
+
+def assume_scenario_ground(readings: WireReadings, ground, source: str) -> WireReadings:
+    """The readings with the wire over the scenario's ``ground`` when the readings' [wire] gives none (a ground it
+    gives stays: the builder wrote it for this wire); ``source`` says where the ground came from."""
+    from snrgain.antennas.base import SpecError, build
+    from snrgain.errors import ReadingsError
+
+    if readings.ground_source == "wire" or ground is None:
+        return readings
+    try:
+        ant = build({**readings.spec, "ground": ground}, "wire")
+    except SpecError as exc:
+        raise ReadingsError("the wire over the scenario's ground", exc.problems) from None
+    return WireReadings(
+        ant, readings.open_short, readings.resonance_hz, readings.sweeps, "scenario", source, readings.spec
+    )
+
+
+def ground_name(antenna) -> str:
+    """The wire's ground in words: its class name, or its constants."""
+    g = antenna.params.ground
+    if g is None:
+        return DEFAULT_GROUND
+    if isinstance(g, str):
+        return g
+    return f"a soil of {g.conductivity * 1e3:.3g} mS/m and permittivity {g.permittivity:.3g}"
 
 
 @record(frozen=False)
@@ -428,6 +540,9 @@ class Calibration:
     """For a BOG on the surface: its axis height over the wire's ground that fits the readings."""
     sweeps: list = field(default_factory=list)
     """What each Touchstone sweep gave (snrgain.tools.touchstone.SweepResult)."""
+    ground_source: str = "wire"
+    """Where the wire's ground (the one the height fit holds) came from (:class:`WireReadings`)."""
+    ground_source_text: str = GIVEN_TEXT
 
     def as_dict(self) -> dict:
         """JSON-ready (SI units in the keys)."""
@@ -440,10 +555,14 @@ class Calibration:
                 "conductivity_s_per_m": f.conductivity_s_per_m,
                 "conductivity_uncertainty_factor": f.conductivity_factor,
                 "permittivity": f.permittivity,
-                "permittivity_sigma": f.permittivity_sigma,
+                "permittivity_sigma": None
+                if any(b.startswith("permittivity") for b in f.at_bound)
+                else f.permittivity_sigma,
                 "permittivity_fixed": f.fixed_permittivity,
                 "residual_rms": f.residual_rms,
-                "scenario_value": f.scenario_value(),
+                "at_bound": list(f.at_bound),
+                "not_usable_because": f.unusable_text() or None,
+                "scenario_value": f.scenario_value() if f.usable else None,
             },
         }
         if self.suggested_termination_ohm is not None:
@@ -455,6 +574,7 @@ class Calibration:
             h = self.height_fit
             out["fitted_height"] = {
                 "ground": self.antenna.describe().get("ground"),
+                "ground_source": self.ground_source,
                 "height_m": h.height_m,
                 "low_m": h.low_m,
                 "high_m": h.high_m,
@@ -518,7 +638,9 @@ def calibrate(
     height = None
     if "depth" in type(ant.params).model_fields and not ant.params.depth > 0:  # a wire on the soil, not buried
         height = fit_bog_height(ant, measured, [(ln.freq_hz, abs(ln.z0)) for ln in constants])
-    return Calibration(ant, constants, resonances, fit, term, turns, height, swept)
+    return Calibration(
+        ant, constants, resonances, fit, term, turns, height, swept, readings.ground_source, readings.ground_source_text
+    )
 
 
 SWEEP_POINTS_FITTED = 6

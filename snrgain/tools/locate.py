@@ -14,7 +14,12 @@ robust loss (scipy.optimize.least_squares, soft-L1, 1 dB scale) from several
 starts (bearings every 30 deg); the bearing's standard uncertainty comes
 from the Jacobian at the solution (J^T J inverted, scaled by the residual
 variance).  A fit whose bearing is not constrained (uncertainty over 45 deg,
-or a singular Jacobian) is reported as failed, not as an answer.
+or a singular Jacobian) is reported as failed, not as an answer, with which
+of the two it was.  A background the sources outweigh in every reading (under
+each by 20 dB) is not determined by the readings: it is said so, and held out
+of the uncertainties (its near-zero Jacobian column would make them
+singular); a determined background far under P.372's quietest man-made level
+is said to be implausible.
 
 When every antenna's pattern is symmetric front to back (small loops, verticals),
 a bearing and its opposite fit equally well: the result says so (180 deg
@@ -46,6 +51,16 @@ from snrgain.records import record
 from snrgain.tools.readings import read_toml
 
 MAX_BEARING_SIGMA_DEG = 45.0
+BACKGROUND_MIN_SHARE = 0.01
+"""Below this share of every fitted reading the diffuse background is not determined by the readings: its share is
+the derivative of a reading's dB by the background's dB, and at 1 % (20 dB under every reading) taking it away
+altogether moves no reading by more than 0.04 dB, a fiftieth of a reading's default uncertainty; the fit then drives
+it anywhere below, and its column of the Jacobian, near zero, would make the uncertainties singular."""
+IMPLAUSIBLE_BELOW_QUIET_RURAL_DB = 10.0
+"""A determined background more than this under P.372's quiet-rural man-made median at the frequency (its quietest
+category, a remote site, whose lower decile is taken as rural's, 4.6 dB under it) is quieter than any site: the
+levels or the antennas' descriptions are likely wrong (galactic noise alone, where it comes through the
+ionosphere, is about as strong as that median at the low bands: P.372 Section 6)."""
 DEFAULT_READING_UNCERTAINTY_DB = 2.0
 """How far a reading may miss the fit before it is called an outlier, unless the file says [dB] (an S-meter read by
 eye: common practice)."""
@@ -214,6 +229,11 @@ class LocateResult:
     labels: list[str] = field(default_factory=list)
     outliers: list[tuple[str, float, float]] = field(default_factory=list)
     """Readings the fit misses by more than their uncertainty: (label, miss [dB], uncertainty [dB])."""
+    background_determined: bool = True
+    """False when the background is under every reading by more than BACKGROUND_MIN_SHARE: its level is then not
+    a result (``background_fa_db`` is only where the fit left it)."""
+    notes: list[str] = field(default_factory=list)
+    """What the result's reader should know besides the message (the background's level, say)."""
 
 
 def _symmetric_front_back(antenna, freq_hz) -> bool:
@@ -317,15 +337,23 @@ def locate(
     s2 = float(np.sum(res**2) / dof)
     rms = float(np.sqrt(np.mean(res**2)))
     symmetric = all(_symmetric_front_back(r.antenna, freq_hz) for r in readings)
+    b, srcs = unpack(x)
+    predicted = model_dbm(x)
+    # The background's share of each fitted reading: d(reading dB)/d(background dB), its Jacobian column.
+    share = 10 ** (b / 10) * t_bg * ktb_g / 10 ** (predicted / 10)
+    bg_determined = bool(np.max(share) >= BACKGROUND_MIN_SHARE)
+    # Not determined, the background is held where the fit left it (it adds nothing to any reading) and the
+    # sources' uncertainties come from their own columns; its near-zero column would make J^T J singular.
+    keep = slice(0, None) if bg_determined else slice(1, None)
+    jac = best.jac[:, keep]
     try:
-        cov = np.linalg.inv(best.jac.T @ best.jac) * max(s2, 1e-4)
-        ok_cov = np.all(np.isfinite(cov))
+        cov = np.linalg.inv(jac.T @ jac) * max(s2, 1e-4)
+        ok_cov = bool(np.all(np.isfinite(cov)))
     except np.linalg.LinAlgError:
         cov, ok_cov = None, False
-    b, srcs = unpack(x)
     fitted = []
     for s, (az, el, log_s) in enumerate(srcs):
-        j = 1 + s * (3 if fit_elevation else 2)
+        j = 1 + s * (3 if fit_elevation else 2) - (0 if bg_determined else 1)
         sig = float(np.degrees(np.sqrt(abs(cov[j, j])))) if ok_cov else float("inf")
         # Level on the reference monopole for the fitted strength.
         t_ref = 10**log_s * float(sky.reference_monopole_gain(el)) / (4 * np.pi)
@@ -339,33 +367,66 @@ def locate(
             )
         )
     ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
-    predicted = model_dbm(x)
     outliers = [
         (r.label, float(p - lv), float(r.uncertainty_db))
         for r, p, lv in zip(readings, predicted, levels)
         if abs(p - lv) > r.uncertainty_db
     ]
+    named = ", ".join(f"{lab} ({miss:+.1f} dB, allowed {u:g})" for lab, miss, u in outliers)
+    count = "1 reading misses" if len(outliers) == 1 else f"{len(outliers)} readings miss"
     if ok and outliers:
-        named = ", ".join(f"{lab} ({miss:+.1f} dB, allowed {u:g})" for lab, miss, u in outliers)
-        count = "1 reading misses" if len(outliers) == 1 else f"{len(outliers)} readings miss"
         msg = (
             f"fit found, but {count} it by more than the stated uncertainty: {named}; "
             "read again, or fit another source (--sources)"
         )
-        if symmetric:
-            msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
     elif ok:
         msg = "fit converged"
-        if symmetric:
-            msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
     else:
+        if not ok_cov:
+            why = "the fit's uncertainties cannot be worked out (singular: the readings do not tell the unknowns apart)"
+        else:
+            worst = max(f.bearing_sigma_deg for f in fitted)
+            why = (
+                f"the bearing's uncertainty is {worst:.0f} deg, over {MAX_BEARING_SIGMA_DEG:g} deg (the readings "
+                f"scatter {rms:.1f} dB rms about the best fit)"
+            )
         msg = (
-            "the readings do not constrain a direction (bearing uncertainty over "
-            f"{MAX_BEARING_SIGMA_DEG:g} deg or a singular fit); take readings on a loop rotated in steps, or on "
+            f"the readings do not constrain a direction: {why}; take readings on a loop rotated in steps, or on "
             "directional antennas pointing different ways"
         )
+        if outliers:
+            msg += f"; {count} the best fit by more than the stated uncertainty: {named}"
+    if symmetric:
+        msg += "; every antenna is symmetric front to back, so each bearing could also be its opposite (180 deg)"
     background = float(b)  # the background's Fa on the reference monopole: scale of the Fa-0-dB component
-    return LocateResult(ok, msg, fitted, background, rms, predicted, levels, [r.label for r in readings], outliers)
+    notes = []
+    quiet = float(p372.man_made(freq_hz, environment="quiet rural").fa_db)
+    if not bg_determined:
+        notes.append(
+            f"the diffuse background is not determined: the sources outweigh it in every reading (the fit left it "
+            f"under each by more than {-10 * np.log10(BACKGROUND_MIN_SHARE):.0f} dB, where it changes none of them); "
+            f"the readings only bound it from above"
+        )
+    elif background < quiet - IMPLAUSIBLE_BELOW_QUIET_RURAL_DB:
+        notes.append(
+            f"the diffuse background, Fa {background:.1f} dB, lies {quiet - background:.0f} dB under P.372's quietest "
+            f"man-made level at {freq_hz / 1e6:g} MHz (quiet rural, Fa {quiet:.1f} dB): no site is that quiet; check "
+            "the levels (dBm at the receiver's input in the stated bandwidth: the fit takes no line loss or "
+            "attenuator ahead of it) and the antennas' sizes and heights (they set the modelled efficiency)"
+        )
+    return LocateResult(
+        ok,
+        msg,
+        fitted,
+        background,
+        rms,
+        predicted,
+        levels,
+        [r.label for r in readings],
+        outliers,
+        bg_determined,
+        notes,
+    )
 
 
 def source_names(res: LocateResult, name: str = "located source") -> list[str]:
@@ -421,7 +482,9 @@ def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
         "message": res.message,
         "frequency_hz": freq_hz,
         "bandwidth_hz": bandwidth_hz,
-        "background_fa_db": res.background_fa_db,
+        "background_determined": res.background_determined,
+        "background_fa_db": res.background_fa_db if res.background_determined else None,
+        "notes": res.notes,
         "residual_rms_db": res.residual_rms_db,
         "sources": [vars(s) for s in res.sources],
         "outliers": [{"label": lab, "miss_db": m, "uncertainty_db": u} for lab, m, u in res.outliers],

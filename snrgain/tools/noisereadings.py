@@ -54,6 +54,13 @@ from snrgain.records import record
 
 SMALL_RISE_DB = 3.0
 """Below this rise over the load a reading mostly measures the receiver (common practice)."""
+EDGE_DB = 0.5
+"""A fit within this of an end of the schema's offset range is taken as stopped there by the range (the search's
+last step is 0.01 dB, so a fit inside the range by more than half a grid cell found a minimum of its own)."""
+MAX_TOLERANCE_DB = 10.0
+"""A wider 90 % half-width than this and the fit is not a result: P.372's environment curves lie 4-14 dB apart at
+the low bands (city, residential, rural, quiet rural; ITU-R P.372 Table 2), so +-10 dB spans two or more of them
+and the readings would tell the site's level no better than choosing its environment does."""
 
 EXAMPLE = """\
 # Noise readings for snrgain noise-readings (for scenarios/wren-corner.toml, an invented site).  Times in UTC.
@@ -310,14 +317,41 @@ class NoiseFit:
     notes: list[str] = field(default_factory=list)
 
     @property
-    def determined(self) -> bool:
-        """Whether the readings fix the level well enough to write it: some reading holds man-made noise beyond
-        the rest, the fit is inside the schema's range, and its tolerance (if known) under 10 dB."""
+    def not_determined_because(self) -> list[str]:
+        """Why the readings do not fix the level (empty when they do): no reading holds man-made noise beyond the
+        rest, the fit stopped at an end of the schema's range, or its 90 % interval is wider than
+        :data:`MAX_TOLERANCE_DB` (an unknown tolerance, from a single reading, is not a reason: a note says so)."""
         from snrgain.tools.learn import OFFSET_RANGE_DB
 
-        inside = OFFSET_RANGE_DB[0] + 0.5 < self.offset_db < OFFSET_RANGE_DB[1] - 0.5
-        tol_ok = not np.isfinite(self.tolerance_db) or self.tolerance_db < 10.0
-        return inside and tol_ok and any(r["offset_db"] is not None for r in self.rows)
+        out = []
+        some = any(r["offset_db"] is not None for r in self.rows)
+        if not some:
+            out.append(
+                "no reading is above what the other noise components and the chain give without man-made noise, so "
+                "the readings only bound the man-made level from above (check the scenario's atmospheric, galactic "
+                "and local noise, its chain, and the readings)"
+            )
+        if self.offset_db <= OFFSET_RANGE_DB[0] + EDGE_DB:
+            out.append(
+                f"the fit ran to the lowest offset the schema allows ({OFFSET_RANGE_DB[0]:+g} dB): the readings ask "
+                "for less man-made noise than any offset gives"
+                + (" (choose a quieter environment and fit again)" if some else "")
+            )
+        elif self.offset_db >= OFFSET_RANGE_DB[1] - EDGE_DB:
+            out.append(
+                f"the fit ran to the highest offset the schema allows ({OFFSET_RANGE_DB[1]:+g} dB): choose a noisier "
+                "environment and fit again"
+            )
+        if np.isfinite(self.tolerance_db) and self.tolerance_db >= MAX_TOLERANCE_DB:
+            out.append(f"its 90 % interval is wider than +-{MAX_TOLERANCE_DB:g} dB")
+        elif np.isinf(self.tolerance_db):
+            out.append("its 90 % interval is unbounded")
+        return out
+
+    @property
+    def determined(self) -> bool:
+        """Whether the readings fix the level well enough to report and write it (:attr:`not_determined_because`)."""
+        return not self.not_determined_because
 
     @property
     def fa_db(self) -> float:
@@ -325,15 +359,21 @@ class NoiseFit:
         return _env_fa(self.environment, self.freq_hz) + self.offset_db
 
     def as_dict(self) -> dict:
+        """The fit for JSON; when the readings do not determine it, ``determined`` is false, the reasons are listed
+        and the fitted numbers are null (none of them is a result then)."""
+        ok = self.determined
+        tol = self.tolerance_db if np.isfinite(self.tolerance_db) else None
         return {
             "quantity": "noise.man_made.offset",
             "environment": self.environment,
             "frequency_hz": self.freq_hz,
             "before_db": self.before_db,
-            "fitted_db": self.offset_db,
-            "readings_scatter_db": self.spread_db,
-            "tolerance_90_db": self.tolerance_db,
-            "man_made_fa_db": self.fa_db,
+            "determined": ok,
+            "not_determined_because": self.not_determined_because,
+            "fitted_db": self.offset_db if ok else None,
+            "readings_scatter_db": self.spread_db if ok else None,
+            "tolerance_90_db": tol if ok else None,
+            "man_made_fa_db": self.fa_db if ok else None,
             "readings": self.rows,
             "notes": self.notes,
         }
@@ -488,8 +528,6 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
             "man-made noise is under a fifth of every reading: the other components and the chain dominate, so the "
             "man-made level is poorly determined; read on an antenna that hears the local sources less"
         )
-    if grid[0] + 0.5 >= delta or delta >= grid[-1] - 0.5:
-        notes.append("the fitted offset lies at the edge of what the schema allows: choose another environment")
     return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes)
 
 
@@ -504,6 +542,14 @@ def fit_lines(f: NoiseFit) -> list[str]:
             f"{r['reading']:>3} {r['time_utc']:<16} {r['antenna'][:20]:<20} {r['kind'][:16]:<16} "
             f"{r['antenna_temperature_k']:>10.3g} {off:>7} {fa:>6}  {r['note']}"
         )
+    if not f.determined:
+        return out + [
+            "",
+            f"man-made ({f.environment}) at {f.freq_hz / 1e6:g} MHz: not determined by these readings; the scenario "
+            f"keeps its offset {f.before_db:+.1f} dB",
+            *(f"  because {n}" for n in f.not_determined_because),
+            *(f"note: {n}" for n in f.notes),
+        ]
     tol = "" if not np.isfinite(f.tolerance_db) else f" +-{f.tolerance_db:.1f} dB (90 %)"
     out += [
         "",
