@@ -88,6 +88,11 @@ def test_pairs_that_cannot_tell_the_level_say_so(tmp_path):
     assert out.exit_code != 0 and "no copy written" in out.output and not (tmp_path / "w.toml").exists()
 
 
+def _warnings_beside_local(output: str) -> list[str]:
+    """The warning lines of a command's output other than a local source's share of an antenna's noise."""
+    return [ln for ln in output.lower().splitlines() if "warning" in ln and "is most of its noise" not in ln]
+
+
 def test_cli_write_copy_ranks_without_warnings(tmp_path):
     from snrgain.cli.main import cli
     from snrgain.model.pipeline import evaluate
@@ -110,9 +115,11 @@ def test_cli_write_copy_ranks_without_warnings(tmp_path):
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         res = evaluate(str(dest))
-    assert not res.warnings
+    # no warning about the copy itself (a quieter man-made level may leave a local source most of a wire's noise:
+    # that explanation is the ranking's, not a fault of the copy)
+    assert not [n for n in res.notices if n.code != "local-source-dominates"]
     rank = CliRunner().invoke(cli, ["rank", str(dest)])
-    assert rank.exit_code == 0 and "warning" not in rank.output.lower()
+    assert rank.exit_code == 0 and not _warnings_beside_local(rank.output)
     # no overwrite without --overwrite; with it, the copy is replaced
     again = CliRunner().invoke(cli, args)
     assert again.exit_code != 0 and dest.read_text() == new
@@ -186,4 +193,4 @@ def test_ground_class_and_offset_recovered_together(tmp_path):
     site = tomllib.loads(dest.read_text())["site"]
     assert site["ground"] == "very dry ground" and site["name"] == "Wren Corner"
     rank = CliRunner().invoke(cli, ["rank", str(dest)])
-    assert rank.exit_code == 0 and "warning" not in rank.output.lower()
+    assert rank.exit_code == 0 and not _warnings_beside_local(rank.output)
