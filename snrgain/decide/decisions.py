@@ -91,6 +91,8 @@ def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[
     source lies LOCAL_DOMINATES_DB or more above the rest of its noise, both at the receiver input and as medians
     over the scenario's months and hours: its SNR gain then rests on how it hears that source, not on its
     directivity toward the sky."""
+    from snrgain.model.spread import median  # np.median's value without loading numpy.ma
+
     names = [s.name for s in sc.noise.local]
     out = []
     for r in candidates:
@@ -99,10 +101,10 @@ def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[
         if not local:
             continue
         watts = {k: np.where(np.isfinite(v), 10 ** (v / 10), 0.0) for k, v in comps.items()}
-        loudest = max(local, key=lambda n: float(np.median(watts[n])))
+        loudest = max(local, key=lambda n: float(median(watts[n])))
         rest = sum((w for k, w in watts.items() if k != loudest), np.zeros_like(watts[loudest]))
-        src_dbm = float(10 * np.log10(max(float(np.median(watts[loudest])), 1e-300)))
-        rest_w = float(np.median(rest))
+        src_dbm = float(10 * np.log10(max(float(median(watts[loudest])), 1e-300)))
+        rest_w = float(median(rest))
         rest_dbm = float(10 * np.log10(rest_w)) if rest_w > 0 else float("-inf")
         if src_dbm - rest_dbm >= LOCAL_DOMINATES_DB:
             out.append(

@@ -25,7 +25,7 @@ from .bands import one_band
 from .compute import Uncertainty
 from .feedline import resolve_feed_lines
 from .files import read_source
-from .local import local_levels_readable, local_sources_clear
+from .local import check_local_sources, reading_antenna, reading_problems
 from .model import Scenario, ScenarioModel, model_problems
 from .noise import find_p372_dir, noise_settings
 from .receiver import chain_from_section, resolve_receiver
@@ -73,26 +73,9 @@ def load(
     if reference is not None and not problems:
         problems += choose_reference(built, reference)
     resolved = resolve_sections(model, base_dir, p372_dir, problems)
+    transmitting, feed_lines = None, {}
     if model is not None and built.antennas and not problems:
-        problems += reading_problems(model, built, file_reference)
-    if model is not None and built.antennas and not problems:
-        problems += check_local_sources(model, built, file_reference)
-    transmitting = None
-    if model is not None and built.antennas and not problems:
-        transmitting, more = transmitting_vertical(model.site.transmitting, built, file_reference)
-        problems += more
-    feed_lines = {}
-    if model is not None and built.antennas and built.feed_lines and not problems:
-        feed_lines, more = resolve_feed_lines(
-            built.feed_lines,
-            built.antennas,
-            built.wheres,
-            Site.of(model.site, length_unit),
-            built.antennas[0].params.position or (0.0, 0.0),
-            model.band.frequency,
-            model.site.station_ground,
-            placeable=built.placeable,
-        )
+        transmitting, feed_lines, more = _after_antennas(model, built, file_reference, length_unit)
         problems += more
     if problems:
         raise ScenarioError(label, problems)
@@ -133,39 +116,30 @@ def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
     return []
 
 
-def reading_antenna(src, file_reference) -> str | None:
-    """The name of the antenna a source's level was read on: its ``read_on`` ("reference": the file's), by default
-    the file's reference; None for a source given as fa."""
-    if src.level is None:
-        return None
-    if src.read_on is None or src.read_on == "reference":
-        return file_reference.name
-    return src.read_on
-
-
-def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list[tuple[str, str]]:
-    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on an antenna as it
-    stands, not on one set under the sky (an array steered by the noise, a phasing unit: its setting comes after the
-    noise; snrgain.model.pipeline.resolve_sources)."""
-    names = [a.name for a in built.antennas]
-    out = []
-    for i, src in enumerate(model.noise.local):
-        on = reading_antenna(src, file_reference)
-        where = f'noise.local {i + 1} ("{src.name}").read_on'
-        if on is None:
-            continue
-        if on not in names:
-            out.append((where, f"no antenna named {on!r}; the scenario has {', '.join(repr(n) for n in names)}"))
-        elif src.placed and on != names[0] and built.antennas[names.index(on)].uses_sky:
-            out.append(
-                (
-                    where,
-                    f"{on!r} is set under the site's noise (steered or phased for it), so a placed source's level "
-                    "cannot be read on it; name the antenna it was read on as it stands, or give the source's fa "
-                    "with measured_at (where it was read)",
-                )
-            )
-    return out
+def _after_antennas(model: ScenarioModel, built: Built, file_reference, length_unit: str):
+    """What needs the antennas built and no problem before it, each step only while the ones before found none: the
+    levels' readings, the local sources, the transmitting vertical, the feed lines.  (transmitting, feed_lines,
+    problems)."""
+    for check in (reading_problems, check_local_sources):
+        problems = check(model, built, file_reference)
+        if problems:
+            return None, {}, problems
+    transmitting, problems = transmitting_vertical(model.site.transmitting, built, file_reference)
+    if problems or not built.feed_lines:
+        return transmitting, {}, problems
+    where_ref = built.antennas[0].params.position or (0.0, 0.0)
+    site = Site.of(model.site, length_unit)
+    feed_lines, problems = resolve_feed_lines(
+        built.feed_lines,
+        built.antennas,
+        built.wheres,
+        site,
+        where_ref,
+        model.band.frequency,
+        model.site.station_ground,
+        placeable=built.placeable,
+    )
+    return transmitting, feed_lines, problems
 
 
 def validate(data) -> tuple[ScenarioModel | None, list[tuple[str, str]]]:
@@ -189,23 +163,6 @@ class Resolved:
     """The scenario's [chain], for antennas without one of their own."""
     stations: tuple = ()
     """[[strong_signal]] as snrgain.physics.strong.Station."""
-
-
-def check_local_sources(model: ScenarioModel, built: Built, file_reference=None) -> list[tuple[str, str]]:
-    """Placed local sources stand clear of every antenna; then (if they do) levels read on the reference (or the
-    antenna ``read_on`` names; by default the file's reference) can be read there."""
-    problems = local_sources_clear(model.noise.local, built.antennas, built.wheres, model.site)
-    if not problems:
-        problems = local_levels_readable(
-            model.noise.local,
-            built.antennas[0],
-            model.band.frequency,
-            model.site,
-            readers={a.name: a for a in built.antennas}
-            | {None: file_reference or built.antennas[0]}
-            | {"reference": file_reference or built.antennas[0]},
-        )
-    return problems
 
 
 def readings_kept(noise, model: ScenarioModel, reference, file_reference):

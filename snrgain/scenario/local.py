@@ -12,6 +12,8 @@ from snrgain.antennas import Antenna
 from .noise import LocalSource, resolve_local_source
 
 if TYPE_CHECKING:
+    from .antennas import Built
+    from .model import ScenarioModel
     from .site import SiteSection
 
 MIN_READING_GAIN = 1e-6
@@ -130,3 +132,55 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
                 )
                 break
     return out
+
+
+def reading_antenna(src, file_reference) -> str | None:
+    """The name of the antenna a source's level was read on: its ``read_on`` ("reference": the file's), by default
+    the file's reference; None for a source given as fa."""
+    if src.level is None:
+        return None
+    if src.read_on is None or src.read_on == "reference":
+        return file_reference.name
+    return src.read_on
+
+
+def reading_problems(model: ScenarioModel, built: Built, file_reference) -> list[tuple[str, str]]:
+    """Every ``read_on`` names an antenna of the scenario; a placed source's level is read on an antenna as it
+    stands, not on one set under the sky (an array steered by the noise, a phasing unit: its setting comes after the
+    noise; snrgain.model.pipeline.resolve_sources)."""
+    names = [a.name for a in built.antennas]
+    out = []
+    for i, src in enumerate(model.noise.local):
+        on = reading_antenna(src, file_reference)
+        where = f'noise.local {i + 1} ("{src.name}").read_on'
+        if on is None:
+            continue
+        if on not in names:
+            out.append((where, f"no antenna named {on!r}; the scenario has {', '.join(repr(n) for n in names)}"))
+        elif src.placed and on != names[0] and built.antennas[names.index(on)].uses_sky:
+            out.append(
+                (
+                    where,
+                    f"{on!r} is set under the site's noise (steered or phased for it), so a placed source's level "
+                    "cannot be read on it; name the antenna it was read on as it stands, or give the source's fa "
+                    "with measured_at (where it was read)",
+                )
+            )
+    return out
+
+
+def check_local_sources(model: ScenarioModel, built: Built, file_reference=None) -> list[tuple[str, str]]:
+    """Placed local sources stand clear of every antenna; then (if they do) levels read on the reference (or the
+    antenna ``read_on`` names; by default the file's reference) can be read there."""
+    problems = local_sources_clear(model.noise.local, built.antennas, built.wheres, model.site)
+    if not problems:
+        problems = local_levels_readable(
+            model.noise.local,
+            built.antennas[0],
+            model.band.frequency,
+            model.site,
+            readers={a.name: a for a in built.antennas}
+            | {None: file_reference or built.antennas[0]}
+            | {"reference": file_reference or built.antennas[0]},
+        )
+    return problems
