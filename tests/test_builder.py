@@ -312,3 +312,23 @@ def test_build_sheet_says_when_the_termination_hardly_matters():
         .attenuation_db_per_100m
         * 0.4
     )
+
+
+def test_a_yardstick_is_ranked_but_never_the_best(tmp_path):
+    # the starter file's isotropic yardstick ranks first toward "far south" (+0.8 dB), but it is nothing to build:
+    # the best there is the best buildable candidate, as the station plan takes it (which serves that target with
+    # the reference: no candidate beats it)
+    from click.testing import CliRunner
+
+    import snrgain
+    from snrgain.cli.main import cli
+
+    path = tmp_path / "starter.toml"
+    assert CliRunner().invoke(cli, ["new", str(path)]).exit_code == 0
+    r = snrgain.evaluate(str(path))
+    t = [t["name"] for t in r.targets].index("far south")
+    tr = r.target_results[t]
+    assert tr.ranking[0] == "isotropic yardstick" and tr.best != "isotropic yardstick"
+    buildable = [n for n in tr.ranking if n != "isotropic yardstick"]
+    assert tr.best == buildable[0] and tr.runner_up == buildable[1]
+    assert "isotropic yardstick" not in r.plan.antennas

@@ -443,15 +443,26 @@ def _rank_key(median_db) -> tuple[int, float]:
 def rank_for_target(
     candidates: list[AntennaResult], target_index: int, target_name: str, reference: AntennaResult
 ) -> TargetResult:
-    """The candidates ranked by median SNR gain toward one target; the best and its margin over the runner-up (the
+    """The candidates ranked by median SNR gain toward one target; the best one to build (a yardstick such as the
+    isotropic antenna is ranked, not chosen: the station plan's rule) and its margin over the runner-up (the
     next antenna one could build instead: another state of the same switched antenna is not one).  Medians equal
     to TIE_DB keep the scenario's order, as the station plan takes them (snrgain.decide.plan: a tie goes to the
     earlier antenna), so rounding in the last digit never makes two answers."""
     order = sorted(candidates, key=lambda a: _rank_key(a.snr_gain_median_db[target_index]))
-    others = [a for a in order[1:] if a.group is None or a.group != order[0].group]
+    can_build = [a for a in order if _buildable(a)] or order  # a yardstick (isotropic) is ranked, never the best
+    best = can_build[0]
+    others = [a for a in can_build[1:] if a.group is None or a.group != best.group]
     runner = others[0] if others else reference
-    margin = float(order[0].snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
-    return TargetResult(target_name, [a.name for a in order], order[0].name, runner.name, margin)
+    margin = float(best.snr_gain_median_db[target_index] - runner.snr_gain_median_db[target_index])
+    return TargetResult(target_name, [a.name for a in order], best.name, runner.name, margin)
+
+
+def _buildable(a: AntennaResult) -> bool:
+    """Whether an antenna is one to build (the station plan's rule, snrgain.decide.plan: not a yardstick)."""
+    from snrgain.antennas import FAMILIES
+
+    family = FAMILIES.get(getattr(a, "family", None))
+    return family is None or family.build.buildable
 
 
 __all__ = [
