@@ -273,3 +273,55 @@ def test_placed_sources_under_another_reference():
     a, b = evaluate(load(fa)), evaluate(load(fa, reference="short vertical"))
     for x in a.antennas:
         np.testing.assert_allclose(np.asarray(b.antenna(x.name).noise_dbm), np.asarray(x.noise_dbm), atol=0.2)
+
+
+def test_a_reference_with_a_feed_line_is_taken_without_it_and_says_so(tmp_path):
+    # the file's reference takes no feed line (an input error); an antenna made the reference by --reference has its
+    # feed line left out the same way, and a warning says so instead of leaving it out silently
+    import warnings
+
+    from snrgain.scenario import load
+
+    path = tmp_path / "fed.toml"
+    path.write_text(MINIMAL_FED, encoding="utf-8")
+    with pytest.warns(UserWarning, match="--reference 'wire': its feed_line is left out while it is the reference"):
+        sc = load(path, reference="wire")
+    assert sc.reference.name == "wire" and "wire" not in sc.feed_lines
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        assert "wire" in load(path).feed_lines  # as written: the candidate's line is scored
+
+
+MINIMAL_FED = """
+[site]
+name = "test site"
+latitude = 40.0
+longitude = -75.0
+ground = "moist loam"
+lot = [[-50, -50], [300, -50], [300, 100], [-50, 100]]
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [3]
+
+[[target]]
+name = "north-east"
+bearing = 45
+elevation = [10, 20]
+
+[reference]
+family = "vertical"
+height = "20 m"
+
+[[candidate]]
+name = "wire"
+family = "beverage"
+length = "200 m"
+height = "2 m"
+bearing = 45
+position = [20, 0]
+feed_line = { to = [0, 10], height = "1 m" }
+"""

@@ -113,6 +113,14 @@ def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
     for lst in (built.antennas, built.wheres, built.chains):
         lst[0], lst[k] = lst[k], lst[0]
     built.placeable.pop(name, None)  # the reference stands where it is
+    if built.feed_lines.pop(built.wheres[0], None) is not None:  # as the file's reference takes none
+        import warnings
+
+        warnings.warn(
+            f"--reference {name!r}: its feed_line is left out while it is the reference (the site's noise is read on "
+            "the reference as it stands; feed lines are scored on candidates)",
+            stacklevel=2,
+        )
     return []
 
 
