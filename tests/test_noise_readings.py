@@ -263,3 +263,14 @@ def test_a_loose_fit_is_not_determined():
     assert not f.determined and "wider than +-10 dB" in f.not_determined_because[0]
     assert nr.NoiseFit(0.0, -3.0, 4.0, nr.MAX_TOLERANCE_DB - 0.1, "rural", 1.83e6, [row]).determined
     assert nr.NoiseFit(0.0, -3.0, 0.0, float("nan"), "rural", 1.83e6, [row]).determined  # one reading
+
+
+def test_a_receiver_named_by_a_list_is_an_input_error(tmp_path):
+    text = '[[receiver]]\nname = "rx"\ns_meter = [["S5", -80], ["S9", -50]]\n'
+    text += _reading("2026-12-02T00:40:00Z", 's_meter = "S7"\nbandwidth = "10 kHz"\nreceiver = []')
+    (tmp_path / "r.toml").write_text(text)
+    from snrgain.errors import ReadingsError
+
+    with pytest.raises(ReadingsError) as err:
+        nr.load_readings(tmp_path / "r.toml")
+    assert any(p.endswith(".receiver") and "as text; got []" in m for p, m in err.value.problems)

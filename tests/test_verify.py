@@ -381,3 +381,12 @@ def test_an_hour_without_decodes_toward_a_target_is_left_out_not_warned():
     north = groups[-1]
     assert north.n == 0 and north.verdict == "too few pairs" and north.warnings == ("no pairs: no verdict",)
     assert not any("0 pairs" in w for g in groups for w in g.warnings)
+
+
+def test_a_header_that_names_a_column_twice_is_an_input_error():
+    from snrgain.tools import logs as lg
+
+    text = "time_utc,band,band,mode,snr_db,tx_call,tx_locator,rx_call\n2026-12-02 00:00:00,1.8366,1.8366,WSPR,-21,"
+    text += "Q1ABC,FN42,Q9XYZ\n"
+    with pytest.raises(ValueError, match=r"spots: line 1: the header names 'band' more than once"):
+        lg.parse_spots_csv(text, "spots", lg.Problems())

@@ -315,6 +315,12 @@ def _csv_frame(text: str, label: str, required: dict[str, tuple[str, ...]]) -> p
             continue
         if header is None:
             header = [h.strip().lower() for h in row]
+            twice = sorted({h for h in header if header.count(h) > 1})
+            if twice:
+                raise ValueError(
+                    f"{label}: line {n}: the header names {', '.join(repr(h) for h in twice)} more than once; "
+                    "each column once"
+                )
             continue
         rows.append([n, *row[: len(header)], *([""] * (len(header) - len(row)))])
     if header is None:

@@ -270,7 +270,9 @@ def load_readings(path) -> list[Reading]:
                 )
         else:
             rx = r.get("receiver")
-            if rx is not None and rx not in tables:
+            if rx is not None and not isinstance(rx, str):
+                problems.append((f"{where}.receiver", f"the name of a [[receiver]] table, as text; got {rx!r}"))
+            elif rx is not None and rx not in tables:
                 problems.append((f"{where}.receiver", f"no [[receiver]] named {rx!r}"))
             elif "bandwidth" not in r:
                 problems.append((f"{where}.bandwidth", "an S-meter reading needs the bandwidth it was read in"))

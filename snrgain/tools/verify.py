@@ -181,6 +181,9 @@ def read_places(path, problems: logs.Problems) -> dict[str, tuple[float, float]]
             continue
         if header is None:
             header = [h.strip().lower() for h in row]
+            twice = sorted({h for h in header if header.count(h) > 1})
+            if twice:
+                raise ValueError(f"{path}: the header names {', '.join(repr(h) for h in twice)} more than once")
             if "call" not in header or not ({"latitude", "longitude"} <= set(header) or "locator" in header):
                 raise ValueError(f"{path}: the header must name call and latitude, longitude (or locator)")
             continue
