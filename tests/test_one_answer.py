@@ -270,3 +270,24 @@ def test_a_tie_in_the_last_digit_is_ranked_as_the_plan_takes_it():
     assert plan.by_target[0][0].antenna == tr.best and not plan.not_best
     # a real difference still ranks first
     assert rank_for_target([alone, cand("better", 12.5)], 0, "Japan", ref).best == "better"
+
+
+def test_a_unit_over_a_wire_whose_resistor_is_set_under_the_sky():
+    # tests/data/combo-auto-terminated.toml: the Beverage's resistor is chosen under the sky (the default) before the
+    # phasing unit over it is set; the steering stage once looked for the unit's parts among the antennas as loaded
+    # and failed.  The unit stands over the wire as set (the very antenna the wire's own row is), and it is never
+    # worse than its better part toward its target.
+    import snrgain
+    from snrgain.model import pipeline
+    from tests.conftest import REPO
+
+    path = REPO / "tests" / "data" / "combo-auto-terminated.toml"
+    r = snrgain.evaluate(path)
+    by = {a.name: a for a in r.candidates}
+    combo, wire, loop = by["combo"], by["A"], by["B"]
+    assert combo.snr_gain_median_db[0] >= max(wire.snr_gain_median_db[0], loop.snr_gain_median_db[0]) - 1e-9
+    set_ = pipeline.nominal(load(path))[0]
+    names = [a.name for a in set_.antennas]
+    unit, a = set_.antennas[names.index("combo")], set_.antennas[names.index("A")]
+    assert getattr(a, "sky_termination", None) is not None  # the wire's resistor was chosen under the sky
+    assert any(e is a for e in unit.elements)

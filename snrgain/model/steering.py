@@ -33,13 +33,23 @@ def with_antennas(sc: Scenario, antennas) -> Scenario:
 
 def repoint(antennas: list, old: list) -> list:
     """Composite antennas made over the antennas at the same places in ``antennas`` as their parts stood in
-    ``old`` (a stage that returns new antennas keeps the phasing units over them)."""
+    ``old`` (a stage that returns new antennas keeps the phasing units over them); a part that is already one of
+    ``antennas`` (a unit set under the sky after its part was: steer) keeps its place."""
     out = list(antennas)
     for k, ant in enumerate(out):
         if ant.composite and ant.elements:
-            idx = [next(i for i, o in enumerate(old) if o is e) for e in ant.elements]
+            idx = [_place_of(e, old, antennas) for e in ant.elements]
             out[k] = ant.with_parts([out[i] for i in idx])
     return out
+
+
+def _place_of(part, old: list, antennas: list) -> int:
+    """Where ``part`` stands: its index in ``old``, else in ``antennas`` (by identity: two antennas may be equal)."""
+    for pool in (old, antennas):
+        for i, o in enumerate(pool):
+            if o is part:
+                return i
+    raise LookupError(f"a part of a combination, {getattr(part, 'name', part)!r}, is not among the antennas")
 
 
 def sky_forms(sc: Scenario, skies, ant, k: int):
