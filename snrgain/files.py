@@ -14,6 +14,7 @@ runs (killed with SIGKILL, or the machine stopped) is removed the next time snrg
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
 import shutil
@@ -34,6 +35,23 @@ class InputFileError(ValueError):
     """A file that is not read: not a regular file, too large, or unreadable; the message names it and the limit."""
 
 
+_INPUTS: set | None = None
+"""(device, inode) of every file :func:`read_limited` read within :func:`command_inputs` (one command's run);
+None outside one."""
+
+
+@contextlib.contextmanager
+def command_inputs():
+    """Within it, the files read are remembered and :func:`check_writable` refuses to write over one of them (an
+    output named like the command's own scenario or readings, with --overwrite, would destroy it)."""
+    global _INPUTS
+    saved, _INPUTS = _INPUTS, set()
+    try:
+        yield
+    finally:
+        _INPUTS = saved
+
+
 def read_limited(path: str | Path, *, limit_bytes: int, what: str = "file") -> bytes:
     """The bytes of ``path``, refused up front unless it is a regular file of at most ``limit_bytes``.
 
@@ -48,6 +66,8 @@ def read_limited(path: str | Path, *, limit_bytes: int, what: str = "file") -> b
         raise InputFileError(f"{p}: cannot read the {what} ({exc.strerror or exc})") from None
     try:
         st = os.fstat(fd)
+        if _INPUTS is not None:
+            _INPUTS.add((st.st_dev, st.st_ino))
         if not stat.S_ISREG(st.st_mode):
             kind = "a folder" if stat.S_ISDIR(st.st_mode) else "a device, a pipe or a socket"
             raise InputFileError(f"{p}: the {what} is {kind}, not a regular file; give a file")
@@ -157,14 +177,22 @@ def missing_folder(d: str | Path) -> FileNotFoundError:
     return FileNotFoundError(f"folder {d} does not exist; create it first (mkdir {d}) or name another")
 
 
-def check_writable(path: str | Path, *, overwrite: bool) -> Path:
+def check_writable(path: str | Path, *, overwrite: bool, replaces: str | Path | None = None) -> Path:
     """Check, before any work, that ``path`` can be written: not an existing file unless ``overwrite``, never a
-    link, a folder or a device, in a folder that exists and can be written.  Returns the path."""
+    link, a folder or a device, in a folder that exists and can be written, never a file the command read
+    (:func:`command_inputs`) but ``replaces``, the one it is an updated copy of (a scenario edited in place).
+    Returns the path."""
     p = Path(path)
+    if str(path).endswith(("/", os.sep)):  # Path() drops the slash: 'out/' would write a file named 'out'
+        raise ValueError(f"{path} names a folder; give a file name")
     if p.is_symlink():
         raise ValueError(f"{p} is a symbolic link; give the file it points to, or another name")
     if p.exists() and not p.is_file():
         raise ValueError(f"{p} exists and is not a regular file (a folder or a device); give a file name")
+    if _INPUTS and p.is_file() and not (replaces is not None and Path(replaces).is_file() and p.samefile(replaces)):
+        st = p.stat()
+        if (st.st_dev, st.st_ino) in _INPUTS:
+            raise ValueError(f"{p} is one of this command's inputs; give the output another name (nothing was written)")
     if p.exists() and not overwrite:
         raise OutputExistsError(p)
     if not p.parent.exists():
@@ -174,7 +202,13 @@ def check_writable(path: str | Path, *, overwrite: bool) -> Path:
     return p
 
 
-def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None], *, overwrite: bool = False) -> Path:
+def write_atomic(
+    path: str | Path,
+    content: str | bytes | Callable[[Path], None],
+    *,
+    overwrite: bool = False,
+    replaces: str | Path | None = None,
+) -> Path:
     """Write ``content`` to ``path`` whole or not at all.
 
     ``content`` is text (UTF-8), bytes, or a function that writes the file at the temporary path it is given
@@ -182,7 +216,7 @@ def write_atomic(path: str | Path, content: str | bytes | Callable[[Path], None]
     replaced one keeps its own.  Interrupted (an exception, Ctrl-C, or SIGTERM through the command line's
     handler), the temporary file is removed and the old file stays as it was.
     """
-    p = check_writable(path, overwrite=overwrite)
+    p = check_writable(path, overwrite=overwrite, replaces=replaces)
     remove_stale(p.parent)
     tmp_path = None
     try:

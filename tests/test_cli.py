@@ -208,3 +208,36 @@ def test_wire_names_a_ground_given_as_numbers():
     assert res.exit_code == 0, res.output
     first = res.output.splitlines()[0]
     assert first == "beverage: 200.0 m (656 ft) at 2.5 m over a ground of 2 mS/m and relative permittivity 8, 1.83 MHz"
+
+
+def test_an_output_named_like_an_input_is_refused_and_the_input_kept(tmp_path):
+    # `report x.toml -o x.toml --overwrite` would have replaced the scenario with the report; `noise-readings --write`
+    # onto its own readings file likewise: each is refused when it comes to write, and the input stays as it was
+    import shutil
+
+    src = tmp_path / "site.toml"
+    shutil.copy(SCENARIOS / "wren-corner.toml", src)
+    before = src.read_bytes()
+    for args in (
+        ["report", str(src), "-o", str(src), "--overwrite"],
+        ["rank", str(src), "-o", str(src), "--overwrite"],
+    ):
+        res = CliRunner().invoke(cli, args)
+        assert res.exit_code == 2, res.output
+        assert f"{src} is one of this command's inputs; give the output another name (nothing was written)" in (
+            res.output
+        )
+        assert src.read_bytes() == before
+    readings = tmp_path / "readings.toml"
+    readings.write_text(CliRunner().invoke(cli, ["noise-readings", "--example"]).output, encoding="utf-8")
+    kept = readings.read_bytes()
+    res = CliRunner().invoke(cli, ["noise-readings", str(src), str(readings), "--write", str(readings), "--overwrite"])
+    assert res.exit_code == 2 and "is one of this command's inputs" in res.output and readings.read_bytes() == kept
+    # another name is written as before
+    assert CliRunner().invoke(cli, ["rank", str(src), "-o", str(tmp_path / "r.json")]).exit_code == 0
+
+
+def test_an_output_path_ending_in_a_slash_names_a_folder(tmp_path):
+    res = CliRunner().invoke(cli, ["rank", str(SCENARIOS / "wren-corner.toml"), "-o", f"{tmp_path}/newdir/"])
+    assert res.exit_code == 2 and f"{tmp_path}/newdir/ names a folder; give a file name" in res.output
+    assert not (tmp_path / "newdir").exists()

@@ -102,7 +102,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
                     f"{freq / 1e6:g} MHz; a wire's constants change with frequency: measure near the band",
                     err=True,
                 )
-        write_output(write_to, new, overwrite=overwrite)
+        write_output(write_to, new, overwrite=overwrite, replaces=scenario)
         out["written"] = write_to
     if fmt == "json":
         emit_json(out)

@@ -84,7 +84,7 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
         out["plot"] = plot
     if write_to is not None:
         text = read_scenario_text(scenario)
-        write_output(write_to, lay.with_layout(text, best, sc.site.length_unit), overwrite=overwrite)
+        write_output(write_to, lay.with_layout(text, best, sc.site.length_unit), overwrite=overwrite, replaces=scenario)
         out["written"] = write_to
     if fmt == "json":
         emit_json(out)

@@ -112,7 +112,7 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite) -> N
         created = None if existed else Path(plot)
     try:
         if text is not None:
-            write_output(write_to, text, overwrite=overwrite)
+            write_output(write_to, text, overwrite=overwrite, replaces=scenario)
     except BaseException:
         if created is not None:
             created.unlink(missing_ok=True)

@@ -66,7 +66,8 @@ def noise_readings(scenario, readings, example, write_to, overwrite, fmt, p372_d
 
         tol = f", +-{f.tolerance_db:.1f} dB (90 %)" if f.tolerance_db == f.tolerance_db else ""
         note = f"fitted to {sum(r['offset_db'] is not None for r in f.rows)} noise readings{tol}"
-        write_output(write_to, learn.write_offset(read_scenario_text(scenario), f.offset_db, note), overwrite=overwrite)
+        text = learn.write_offset(read_scenario_text(scenario), f.offset_db, note)
+        write_output(write_to, text, overwrite=overwrite, replaces=scenario)
         out["written"] = write_to
     if fmt == "json":
         emit_json(out)

@@ -179,8 +179,11 @@ def handle_errors(fn):
 
     @functools.wraps(fn)
     def wrapper(*args, **kwargs):
+        from snrgain.files import command_inputs
+
         try:
-            return fn(*args, **kwargs)
+            with command_inputs():  # no output written over a file the command read
+                return fn(*args, **kwargs)
         except BrokenPipeError:  # output piped into a reader that stopped early (e.g. head): leave quietly
             import os
 
@@ -271,11 +274,12 @@ def json_text(data) -> str:
     return json.dumps(jsonable(data), sort_keys=True, indent=2, allow_nan=False) + "\n"
 
 
-def write_output(path, content, *, overwrite: bool) -> None:
-    """Write a file whole or not at all and say so on stderr."""
+def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
+    """Write a file whole or not at all and say so on stderr; ``replaces``: the scenario a copy updates, which it
+    may replace (with --overwrite), where no other file the command read may be written over."""
     from snrgain.files import write_atomic
 
-    write_atomic(path, content, overwrite=overwrite)
+    write_atomic(path, content, overwrite=overwrite, replaces=replaces)
     click.echo(f"wrote {path}", err=True)
 
 

@@ -205,6 +205,6 @@ def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=F
             text = learn.write_ground(
                 text, f.ground, "the class that fits the paired decodes best (verify --fit-ground)"
             )
-        write_output(write_to, text, overwrite=overwrite)
+        write_output(write_to, text, overwrite=overwrite, replaces=scenario)
         out["written"] = write_to
     return out, lines
