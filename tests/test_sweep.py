@@ -337,3 +337,43 @@ def test_sweep_takes_another_reference_with_a_placed_level(tmp_path):
     res = CliRunner().invoke(cli, ["sweep", str(path), "--reference", "nobody", "--vary", vary, "-o", str(bad)])
     assert res.exit_code == 2
     assert "--reference: no antenna named 'nobody'" in res.stderr and "--vary" not in res.stderr and not bad.exists()
+
+
+@pytest.mark.parametrize("kind", ["silent", "garbage"])
+def test_dask_at_a_listener_that_is_no_scheduler_says_so_in_time(kind):
+    # a port that accepts but never speaks kept the client waiting without end; one that answers with other bytes
+    # (an HTTP server) gave a MemoryError traceback (its bytes read as a message length of exabytes)
+    pytest.importorskip("distributed")
+    import socket
+    import threading
+    import time
+
+    from snrgain.tools.sweep import connect
+
+    server = socket.socket()
+    server.bind(("127.0.0.1", 0))
+    server.listen(4)
+    held = []
+
+    def serve():
+        while True:
+            try:
+                c, _ = server.accept()
+            except OSError:
+                return
+            held.append(c)
+            if kind == "garbage":
+                c.sendall(b"HTTP/1.1 400 Bad Request\r\nContent-Length: 0\r\n\r\n")
+                c.close()
+
+    threading.Thread(target=serve, daemon=True).start()
+    address = f"tcp://127.0.0.1:{server.getsockname()[1]}"
+    t = time.perf_counter()
+    try:
+        with pytest.raises(ValueError, match=f"--dask '{address}': "):
+            connect(address, timeout_s=1.0)
+    finally:
+        server.close()
+        for c in held:
+            c.close()
+    assert time.perf_counter() - t < 30.0

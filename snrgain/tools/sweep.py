@@ -600,8 +600,16 @@ def _reachable(address: str, timeout_s: float) -> None:
     parts = urlsplit(address)
     if parts.scheme != "tcp" or parts.hostname is None or parts.port is None:
         return
-    with socket.create_connection((parts.hostname, parts.port), timeout=timeout_s):
-        pass
+    with socket.create_connection((parts.hostname, parts.port), timeout=timeout_s) as sock:
+        # a Dask scheduler opens its handshake as soon as it accepts (measured on distributed's LocalCluster: its
+        # first bytes at once); a listener that stays silent would keep the client waiting without end
+        sock.settimeout(timeout_s)
+        try:
+            first = sock.recv(1)
+        except TimeoutError:
+            raise TimeoutError(f"it accepted the connection but sent nothing within {timeout_s:g} s") from None
+        if not first:
+            raise ConnectionError("it closed the connection without a word")
 
 
 LOCAL_WORKERS = 2
@@ -641,13 +649,24 @@ def connect(address: str, *, timeout_s: float = 8.0):
             )
         cluster.scale(LOCAL_WORKERS)  # does not wait for them
         return Client(cluster)
+    import dask
+
     try:
         _reachable(address, timeout_s)  # a refused port says so at once (the client would retry to its timeout)
-        return Client(address, timeout=f"{timeout_s}s")
     except (OSError, TimeoutError) as exc:
         raise ValueError(
             f"--dask {address!r}: cannot reach the scheduler ({exc.__class__.__name__}: {exc}); "
             "start one with 'dask scheduler' and workers with 'dask worker ADDRESS'"
+        ) from None
+    # something listens there: it must answer as a scheduler within the timeout (a server of another kind either
+    # never answers Dask's handshake or answers with bytes read as a message's length: exabytes to allocate)
+    try:
+        with dask.config.set({"distributed.comm.timeouts.connect": f"{timeout_s}s"}):  # the handshake's too
+            return Client(address, timeout=f"{timeout_s}s")
+    except Exception as exc:  # noqa: BLE001 - whatever the other end did, the answer is the same
+        raise ValueError(
+            f"--dask {address!r}: something listens there but does not answer as a Dask scheduler within "
+            f"{timeout_s:g} s ({exc.__class__.__name__}); give the address 'dask scheduler' prints"
         ) from None
 
 
