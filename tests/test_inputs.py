@@ -468,3 +468,35 @@ def test_fuzz_vary(table, key, values, ranged):
         assert str(exc)
         return
     assert v.values and all(x != "" for x in v.values)
+
+
+def test_a_unit_over_an_antenna_that_fails_is_not_said_twice(tmp_path):
+    # a part whose own table fails is said once: the unit over it no longer adds "no antenna named ..." for it;
+    # a part that is nowhere in the file still is
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    assert 'name = "sense whip"' in text and 'antennas = ["reference", "sense whip"]' in text
+    i = text.index('name = "sense whip"')
+    j = text.index('height = "', i)
+    bad = text[:j] + 'height = "0 m"\n' + text[text.index("\n", j) + 1 :]
+    with pytest.raises(ScenarioError) as err:
+        snrgain.evaluate(bad)
+    msgs = [m for _, m in err.value.problems]
+    assert len(msgs) == 1 and "must be between 0.05 m and 300 m" in msgs[0]
+    gone = text.replace('antennas = ["reference", "sense whip"]', 'antennas = ["reference", "nowhere"]')
+    with pytest.raises(ScenarioError, match="no antenna named 'nowhere'"):
+        snrgain.evaluate(gone)
+
+
+def test_a_ground_that_is_free_space_is_an_input_error():
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    site = text.index("[site]")
+    vac = text[: site + 7] + 'ground = { conductivity = "0 mS/m", permittivity = 1 }\n' + text[site + 7 :]
+    vac = vac.replace('ground = "moist loam"\n', "", 1) if vac.count("ground = ") > 1 else vac
+    with pytest.raises(ScenarioError, match="is free space, not a ground"):
+        snrgain.evaluate(vac)

@@ -35,6 +35,11 @@ class Ground:
             raise ValueError(f"ground conductivity must be >= 0 S/m, got {self.conductivity_s_per_m!r}")
         if not (1.0 <= self.permittivity <= 100.0):
             raise ValueError(f"ground relative permittivity must be between 1 and 100, got {self.permittivity!r}")
+        if self.conductivity_s_per_m == 0 and self.permittivity == 1.0:
+            raise ValueError(
+                "a ground of relative permittivity 1 and no conductivity is free space, not a ground; give the "
+                "soil's values (moist loam: 5 mS/m, 13), or 'perfect'"
+            )
 
     def complex_permittivity(self, freq_hz):
         """eps_c = eps_r - j sigma / (omega eps0) [-] at a frequency [Hz]."""

@@ -73,9 +73,10 @@ def antenna_from_table(spec: dict, where: str, *, site_ground, base_dir: Path | 
     return build_antenna(inject_defaults(spec, site_ground=site_ground, base_dir=base_dir), where, freq_hz=freq_hz)
 
 
-def attach_combinations(antennas: list[Antenna], wheres: list[str]) -> list[tuple[str, str]]:
+def attach_combinations(antennas: list[Antenna], wheres: list[str], failed=frozenset()) -> list[tuple[str, str]]:
     """Give every combination its two antennas, named by ``antennas`` ("reference" or the reference's name names
-    the reference); problems as (path, message)."""
+    the reference); problems as (path, message).  A part named among ``failed`` (tables whose own problems are
+    said already) is not said again."""
     by_name = {a.name: a for a, w in zip(antennas, wheres) if w != "reference"}
     if antennas and wheres[0] == "reference":
         by_name["reference"] = antennas[0]
@@ -86,6 +87,8 @@ def attach_combinations(antennas: list[Antenna], wheres: list[str]) -> list[tupl
             continue
         parts = []
         for i, name in enumerate(ant.params.antennas):
+            if name not in by_name and name in failed:
+                continue
             if name not in by_name:
                 known = ", ".join(repr(n) for n in by_name)
                 out.append((f"{where}.antennas.{i + 1}", f"no antenna named {name!r}; the scenario has {known}"))
@@ -266,5 +269,16 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
                 if problem:
                     out.problems.append((f"{where}.place", problem))
                 out.placeable[spec["name"] if len(states) > 1 else first.name] = own_place  # a switched one: its name
-    out.problems.extend(attach_combinations(out.antennas, out.wheres))
+    out.problems.extend(attach_combinations(out.antennas, out.wheres, _unbuilt(data, freq_hz, out)))
+    return out
+
+
+def _unbuilt(data, freq_hz, built: Built) -> set:
+    """The names of the tables that were not built (each said its own problems; "reference" for the reference): a
+    unit over one of them does not say it again."""
+    out = set()
+    for where, spec in antenna_specs(data, freq_hz):
+        name = spec.get("name") if isinstance(spec, dict) else None
+        if where not in built.wheres:
+            out |= {n for n in (name, "reference" if where == "reference" else None) if isinstance(n, str)}
     return out
