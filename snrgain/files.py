@@ -44,12 +44,27 @@ None outside one."""
 def command_inputs():
     """Within it, the files read are remembered and :func:`check_writable` refuses to write over one of them (an
     output named like the command's own scenario or readings, with --overwrite, would destroy it)."""
-    global _INPUTS
-    saved, _INPUTS = _INPUTS, set()
+    global _INPUTS, _OUTPUTS
+    saved, _INPUTS, _OUTPUTS = (_INPUTS, _OUTPUTS), set(), set()
     try:
         yield
     finally:
-        _INPUTS = saved
+        _INPUTS, _OUTPUTS = saved
+
+
+_OUTPUTS: set | None = None
+"""The output paths one command's run has claimed (:func:`claim_output`); None outside one."""
+
+
+def claim_output(path: str | Path) -> None:
+    """Within :func:`command_inputs`, refuse a path given for two of the command's outputs (the second would
+    replace the first, or be refused as existing after the first was written)."""
+    if _OUTPUTS is None:
+        return
+    key = os.path.abspath(path)
+    if key in _OUTPUTS:
+        raise ValueError(f"{path} is given for two outputs; give each its own file")
+    _OUTPUTS.add(key)
 
 
 def read_limited(path: str | Path, *, limit_bytes: int, what: str = "file") -> bytes:

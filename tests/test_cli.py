@@ -241,3 +241,12 @@ def test_an_output_path_ending_in_a_slash_names_a_folder(tmp_path):
     res = CliRunner().invoke(cli, ["rank", str(SCENARIOS / "wren-corner.toml"), "-o", f"{tmp_path}/newdir/"])
     assert res.exit_code == 2 and f"{tmp_path}/newdir/ names a folder; give a file name" in res.output
     assert not (tmp_path / "newdir").exists()
+
+
+def test_one_path_for_two_outputs_is_refused_before_any_work(tmp_path):
+    # layout --write X --plot X wrote the PNG, then refused the scenario copy as existing (exit 2, a file left)
+    out = tmp_path / "f.png"
+    data = SCENARIOS.parent / "tests" / "data" / "layout-two-beverages.toml"
+    res = CliRunner().invoke(cli, ["layout", str(data), "--write", str(out), "--plot", str(out)])
+    assert res.exit_code == 2 and f"{out} is given for two outputs; give each its own file" in res.output
+    assert not out.exists()

@@ -286,6 +286,7 @@ def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
 def check_output(path, *, overwrite: bool) -> None:
     """Refuse, before any work, an output file that exists (without --overwrite) or has no folder."""
     if path is not None:
-        from snrgain.files import check_writable
+        from snrgain.files import check_writable, claim_output
 
+        claim_output(path)
         check_writable(path, overwrite=overwrite)
