@@ -250,3 +250,14 @@ def test_one_path_for_two_outputs_is_refused_before_any_work(tmp_path):
     res = CliRunner().invoke(cli, ["layout", str(data), "--write", str(out), "--plot", str(out)])
     assert res.exit_code == 2 and f"{out} is given for two outputs; give each its own file" in res.output
     assert not out.exists()
+
+
+def test_wire_at_30_mhz_and_at_a_grazing_elevation():
+    # at 30 MHz a tenth of a wavelength (0.9993 m) lay under the wires' least length: the length search failed with
+    # "length: must be between 1 m and 3000 m; got 0.9993..." (not the user's length); and at 0 deg elevation every
+    # figure was -inf or nan: the option starts at 1 deg
+    res = CliRunner().invoke(cli, ["wire", "--frequency", "30 MHz", "--length", "200 m", "--height", "0.06 m"])
+    assert res.exit_code == 0, res.output
+    assert "model's best for RDF" in res.output
+    res = CliRunner().invoke(cli, ["wire", "--frequency", "1.83 MHz", "--length", "200 m", "--elevation", "0"])
+    assert res.exit_code == 2 and "0.0 is not in the range 1<=x<=90" in res.output

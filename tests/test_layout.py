@@ -416,3 +416,15 @@ def test_the_combinations_worths_at_once_equal_each_layouts():
         combos = [tuple(int(k) for k in rng.integers(0, 7, n)) for _ in range(50)]
         want = [Layout((), tuple(per[i][j][0] for i, j in enumerate(ix)), ()).worth_db for ix in combos]
         assert list(_worths_db(per, combos)) == want  # to the bit: the ranking's order and ties as before
+
+
+def test_a_lot_too_narrow_for_any_place_says_so():
+    # a lot 0.5 m wide held no point of the search's grid: the arrays of places were empty and the rules' unpacking
+    # failed ("not enough values to unpack"); it is an input problem named as such
+    text = (DATA / FILES[0]).read_text(encoding="utf-8")
+    lot = "lot = [[-40, -40], [210, -40], [210, 280], [-40, 280]]"
+    assert lot in text
+    data = tomllib.loads(text.replace(lot, "lot = [[-400, 0], [400, 0], [400, 0.5], [-400, 0.5]]", 1))
+    problem = Problem(load(data), data)
+    with pytest.raises(ValueError, match="no place of the search's grid lies on the lot"):
+        problem.search(keep=1)

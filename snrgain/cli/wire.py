@@ -39,10 +39,11 @@ class WireFamily(click.Choice):
 @click.option("--permittivity", type=FiniteRange(1, 100), default=None, help="Ground relative permittivity.")
 @click.option(
     "--elevation",
-    type=FiniteRange(0, 90),
+    type=FiniteRange(1, 90),
     default=20.0,
     show_default=True,
-    help="Target elevation [deg] along the wire's bearing, for RDF and the length rule.",
+    help="Target elevation [deg] along the wire's bearing, for RDF and the length rule (from 1 deg: at 0 deg "
+    "an antenna over the ground receives nothing, its direct and reflected waves cancelling).",
 )
 @click.option(
     "--termination",

@@ -524,6 +524,11 @@ class Problem:
         ValueError naming the rules that bind, most binding first, when there is none."""
         pairs, points = self.grid_designs(i)
         designs = [(e, n, b, ln) for b, ln in pairs for e, n in points]  # made into Designs where they keep the rules
+        if not designs:  # a lot too narrow for the grid's spacing holds no place at all
+            raise ValueError(
+                f"candidate {self.names[i]!r}: no place of the search's grid lies on the lot (it is too narrow or "
+                "too small to stand an antenna on); check [site] lot"
+            )
         if all(ln is not None for _, ln in pairs):  # wires: the rules worked from arrays, no Design made first
             arrays = [np.array(c, dtype=float) for c in zip(*designs)]
             columns = self.violation_columns([], flags=True, wires=(self.names[i], *arrays))
