@@ -500,3 +500,26 @@ def test_a_ground_that_is_free_space_is_an_input_error():
     vac = vac.replace('ground = "moist loam"\n', "", 1) if vac.count("ground = ") > 1 else vac
     with pytest.raises(ScenarioError, match="is free space, not a ground"):
         snrgain.evaluate(vac)
+
+
+def test_a_byte_order_mark_is_read_past_and_utf16_named(tmp_path):
+    # a scenario saved with a byte-order mark (as some editors save UTF-8) failed "Invalid statement (line 1,
+    # column 1)"; a CSV log with one did not find its time_utc column; UTF-16 files are named as such
+    import snrgain
+    from snrgain.errors import ScenarioError
+    from snrgain.tools import logs
+
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    bom = tmp_path / "bom.toml"
+    bom.write_bytes(b"\xef\xbb\xbf" + text.encode("utf-8"))
+    assert snrgain.scenario.load(bom).site.name == "Wren Corner"
+    u16 = tmp_path / "u16.toml"
+    u16.write_bytes(text.encode("utf-16"))
+    with pytest.raises(ScenarioError, match="the file is UTF-16 text; save it as UTF-8"):
+        snrgain.scenario.load(u16)
+    log = tmp_path / "log.csv"
+    log.write_bytes(b"\xef\xbb\xbftime_utc,band\n")
+    assert logs.read_text(log).startswith("time_utc,")
+    log.write_bytes("time_utc,band\n".encode("utf-16"))
+    with pytest.raises(ValueError, match="is UTF-16 text; save it as UTF-8"):
+        logs.read_text(log)

@@ -54,7 +54,7 @@ def read_pattern_csv(path: str | Path) -> dict[str, np.ndarray]:
     path = Path(path)
     raw = read_limited(path, limit_bytes=MAX_PATTERN_BYTES, what="pattern file")  # InputFileError (ValueError)
     try:
-        text = raw.decode("utf-8")
+        text = raw.decode("utf-8-sig")  # a leading byte-order mark, as some editors save, dropped
     except UnicodeDecodeError as exc:
         raise ValueError(f"{path}: byte {exc.start + 1} is not UTF-8 text; save the pattern file as UTF-8") from None
     lines = [(i + 1, ln) for i, ln in enumerate(text.splitlines()) if ln.strip() and not ln.lstrip().startswith("#")]

@@ -43,9 +43,12 @@ def read_text_file(path: Path) -> str:
 
 
 def decode_text(raw: bytes, label: str) -> str:
-    """UTF-8 text of a file; ScenarioError naming the line and column of the first byte that is not UTF-8."""
+    """UTF-8 text of a file (a leading byte-order mark, as some editors save, dropped); ScenarioError naming the line
+    and column of the first byte that is not UTF-8, or saying the file is UTF-16."""
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise ScenarioError(label, [("", "the file is UTF-16 text; save it as UTF-8")])
     try:
-        return raw.decode("utf-8")
+        return raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         line = raw.count(b"\n", 0, exc.start) + 1
         col = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1

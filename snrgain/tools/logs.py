@@ -39,7 +39,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from snrgain.files import InputFileError  # noqa: F401 - re-exported: what read_text raises
+from snrgain.files import InputFileError  # re-exported: what read_text raises
 from snrgain.records import record
 from snrgain.tools.locator import LOCATOR_SHAPE, is_locator
 
@@ -123,11 +123,14 @@ COLUMNS = ("line", "time", "band", "mode", "snr_db", "dt_s", "audio_hz", "messag
 
 
 def read_text(path, what: str = "log") -> str:
-    """A log's text (a regular file within :data:`MAX_LOG_BYTES`); undecodable bytes become U+FFFD (the line then
-    fails on its own, named)."""
+    """A log's text (a regular file within :data:`MAX_LOG_BYTES`; a leading byte-order mark dropped); undecodable
+    bytes become U+FFFD (the line then fails on its own, named); UTF-16 text is refused, named."""
     from snrgain.files import read_limited
 
-    return read_limited(Path(path), limit_bytes=MAX_LOG_BYTES, what=what).decode("utf-8", errors="replace")
+    raw = read_limited(Path(path), limit_bytes=MAX_LOG_BYTES, what=what)
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise InputFileError(f"{path}: the {what} is UTF-16 text; save it as UTF-8")
+    return raw.decode("utf-8-sig", errors="replace")
 
 
 @contextlib.contextmanager
