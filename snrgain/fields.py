@@ -316,3 +316,25 @@ def _point(value):
 
 PlanPoint = Annotated[tuple[float, float], BeforeValidator(_point)]
 """A point on the site plan, metres east and north of the plan's origin."""
+
+MAX_NAME_CHARS = 80
+"""The longest name of a site, antenna, target, source, area or structure (a table's row, a figure's label)."""
+
+
+def check_name(value):
+    """A name as written: text of 1 to MAX_NAME_CHARS characters, not only spaces, without control characters (they
+    reach the terminal and the report as they are)."""
+    if not isinstance(value, str):
+        raise ValueError(f"a name is text in quotes; got {value!r}")
+    if not value.strip():
+        raise ValueError("a name needs a letter or a digit, not only spaces")
+    if len(value) > MAX_NAME_CHARS:
+        raise ValueError(f"a name of at most {MAX_NAME_CHARS} characters; this one has {len(value):,}")
+    bad = next((c for c in value if ord(c) < 32 or 127 <= ord(c) < 160), None)
+    if bad is not None:
+        raise ValueError(f"a name without control characters; this one holds U+{ord(bad):04X}")
+    return value
+
+
+Name = Annotated[str, BeforeValidator(check_name)]
+"""A name of a site, antenna, target, local source, keep-out area or structure (:func:`check_name`)."""

@@ -523,3 +523,40 @@ def test_a_byte_order_mark_is_read_past_and_utf16_named(tmp_path):
     log.write_bytes("time_utc,band\n".encode("utf-16"))
     with pytest.raises(ValueError, match="is UTF-16 text; save it as UTF-8"):
         logs.read_text(log)
+
+
+@pytest.mark.parametrize(
+    "name, message",
+    [
+        ("B" * 81, "a name of at most 80 characters; this one has 81"),
+        ("   ", "a name needs a letter or a digit, not only spaces"),
+        ("bell\x07", "a name without control characters; this one holds U+0007"),
+    ],
+)
+def test_a_name_is_short_printable_text(name, message):
+    # a 1 MB candidate name passed check and then ran figures for 45 s into matplotlib's image-size limit; a name of
+    # spaces showed as a blank row; control characters reached the terminal and the report as they were
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    assert 'name = "sense whip"' in text
+    import json
+
+    bad = text.replace('name = "sense whip"', f"name = {json.dumps(name)}", 1)
+    with pytest.raises(ScenarioError) as err:
+        snrgain.evaluate(bad)
+    assert any(p.endswith(".name") and message in m for p, m in err.value.problems)
+
+
+def test_a_switched_antennas_name_leaves_room_for_its_states_and_locate_writes_a_name_the_scenario_takes(tmp_path):
+    import snrgain
+    from snrgain.cli.main import cli
+    from snrgain.errors import ScenarioError
+
+    text = (REPO / "tests" / "data" / "layout-switched.toml").read_text(encoding="utf-8")
+    assert 'name = "flag pair"' in text
+    with pytest.raises(ScenarioError, match="a switched antenna's name of at most 65 characters here"):
+        snrgain.evaluate(text.replace('name = "flag pair"', f'name = "{"F" * 78}"', 1))
+    res = CliRunner().invoke(cli, ["locate", str(tmp_path / "none.toml"), "--name", " "])
+    assert res.exit_code == 2 and "a name needs a letter or a digit" in res.output

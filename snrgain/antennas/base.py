@@ -19,7 +19,7 @@ import numpy as np
 from pydantic import ValidationError
 
 from snrgain.errors import SpecError
-from snrgain.fields import SI_CONTEXT, PlanPoint, StrictModel
+from snrgain.fields import SI_CONTEXT, Name, PlanPoint, StrictModel
 from snrgain.records import record
 
 
@@ -27,7 +27,7 @@ class AntennaParams(StrictModel):
     """Keys every antenna accepts besides its family's own."""
 
     family: str
-    name: str | None = None
+    name: Name | None = None
     position: PlanPoint | None = None
     """Where the antenna's feed point stands on the site plan [m east, m north] (for the plan view)."""
 
@@ -233,6 +233,8 @@ def item_label(key: str, index: int, item) -> str:
     'elevation 2'
     """
     name = item.get("name") if isinstance(item, dict) else None
+    if isinstance(name, str) and len(name) > 60:  # a name too long to be one (its own problem says so) is cut here
+        name = name[:57] + "..."
     return f"{key} {index + 1}" + (f' ("{name}")' if isinstance(name, str) and name else "")
 
 

@@ -63,6 +63,12 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
         example_text=loc.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
     ):
         return
+    from snrgain.fields import check_name
+
+    try:  # the name it writes must be one the scenario takes (numbered "name 2" when several)
+        check_name(name if sources == 1 else f"{name} {sources}")
+    except ValueError as exc:
+        raise click.BadParameter(str(exc), param_hint="--name") from None
     for target in (plot, write_to):
         check_output(target, overwrite=overwrite)
     data = loc.load_readings(Path(readings))

@@ -10,7 +10,18 @@ import numpy as np
 from pydantic import Field, model_validator
 
 from snrgain.constants import FREQ_RANGE_HZ, MAN_MADE_CHOICES
-from snrgain.fields import Bearing, Elevation, Latitude, Longitude, PlanPoint, PowerDbm, StrictModel, decibels, quantity
+from snrgain.fields import (
+    Bearing,
+    Elevation,
+    Latitude,
+    Longitude,
+    Name,
+    PlanPoint,
+    PowerDbm,
+    StrictModel,
+    decibels,
+    quantity,
+)
 from snrgain.physics import targets as targetmod
 from snrgain.sky import noise as noisemod
 
@@ -117,7 +128,7 @@ class Galactic(StrictModel):
 
 
 class LocalSource(StrictModel):
-    name: str
+    name: Name
     bearing: Bearing | None = None
     """Where a distant-in-effect source lies, seen from the station; or give its place (position or latitude and
     longitude) and each antenna sees it from where it stands."""

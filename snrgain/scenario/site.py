@@ -12,6 +12,7 @@ from snrgain.fields import (
     GroundField,
     Latitude,
     Longitude,
+    Name,
     PlanPoint,
     StrictModel,
     ground_spread,
@@ -49,13 +50,13 @@ Outline = Annotated[
 
 
 class KeepOut(StrictModel):
-    name: str
+    name: Name
     outline: Outline
     """Corners [east, north] on the site plan (or { latlon = [...] }), in order around the edge."""
 
 
 class SiteSection(StrictModel):
-    name: str = "unnamed site"
+    name: Name = "unnamed site"
     latitude: Latitude
     longitude: Longitude
     ground: GroundField = "moist loam"

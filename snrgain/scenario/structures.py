@@ -3,13 +3,13 @@ what they do is computed by snrgain.model.scatter."""
 
 from __future__ import annotations
 
-from snrgain.fields import PlanPoint, StrictModel, quantity
+from snrgain.fields import Name, PlanPoint, StrictModel, quantity
 
 
 class Structure(StrictModel):
     """A nearby metal structure that re-radiates (snrgain.model.scatter): a tower, another vertical, a mast."""
 
-    name: str
+    name: Name
     position: PlanPoint
     """Its foot on the site plan [east, north]."""
     height: quantity("length", ge=0.5, le=300.0)

@@ -246,6 +246,17 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
     degs = [float(np.degrees(b)) % 360.0 for b in bearings]
     labels = tuple(state_label(d) if n is None else named_label(n, d) for n, d in zip(state_names, degs))
     group = spec.get("name")
+    from snrgain.fields import MAX_NAME_CHARS
+
+    room = MAX_NAME_CHARS - 1 - max(len(label) for label in labels)
+    if isinstance(group, str) and len(group) > room:  # its states' names (name + label) must be names too
+        return [], [
+            (
+                f"{where}.name",
+                f"a switched antenna's name of at most {room} characters here: its states are named after it, "
+                f"{group[:20]!r}... {labels[0]!r}, and a name has at most {MAX_NAME_CHARS}; this one has {len(group)}",
+            )
+        ]
     out = []
     for i, (b, label) in enumerate(zip(bearings, labels)):
         state = dict(spec)

@@ -8,7 +8,7 @@ import numpy as np
 from pydantic import Field, field_validator, model_validator
 
 from snrgain.antennas.base import item_label
-from snrgain.fields import Bearing, Elevation, Latitude, Longitude, StrictModel, quantity
+from snrgain.fields import Bearing, Elevation, Latitude, Longitude, Name, StrictModel, quantity
 from snrgain.physics import targets as targetmod
 
 from .times import Hours, Months
@@ -24,7 +24,7 @@ MAX_MIN_ELEVATION_RAD = float(np.radians(45.0))
 
 
 class Target(StrictModel):
-    name: str
+    name: Name
     weight: float = Field(default=1.0, gt=0.0, le=1000.0)
     bearing: Bearing | None = None
     elevation: list[Elevation] | None = None
