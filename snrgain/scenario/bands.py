@@ -113,7 +113,8 @@ def one_band(data: dict, band: str | None, label: str = "<scenario>") -> dict:
                 (
                     "band",
                     f"this scenario has {len(names)} bands ({', '.join(map(repr, names))}): rank answers them all; "
-                    "this command takes one, --band NAME",
+                    "report, figures, layout and sweep take one, --band NAME; verify, locate, noise-readings and "
+                    "calibrate take a file of one band",
                 )
             ],
         )
