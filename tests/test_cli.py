@@ -261,3 +261,15 @@ def test_wire_at_30_mhz_and_at_a_grazing_elevation():
     assert "model's best for RDF" in res.output
     res = CliRunner().invoke(cli, ["wire", "--frequency", "1.83 MHz", "--length", "200 m", "--elevation", "0"])
     assert res.exit_code == 2 and "0.0 is not in the range 1<=x<=90" in res.output
+
+
+def test_dash_is_standard_output_and_a_figure_needs_its_suffix(tmp_path, monkeypatch):
+    # `rank -o -` wrote a file named '-'; it prints as `new -` does.  --plot with another suffix than .png or .svg
+    # is refused before any work (it failed after the layout's search)
+    monkeypatch.chdir(tmp_path)
+    res = CliRunner().invoke(cli, ["rank", str(SCENARIOS / "wren-corner.toml"), "-o", "-", "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.stdout)["site"]["name"] == "Wren Corner" and not (tmp_path / "-").exists()
+    data = SCENARIOS.parent / "tests" / "data" / "layout-two-beverages.toml"
+    res = CliRunner().invoke(cli, ["layout", str(data), "--plot", "plan.txt"])
+    assert res.exit_code == 2 and "a figure is written to a file named .png or .svg" in res.output

@@ -110,10 +110,21 @@ def band_names(scenario) -> list[str] | None:
         return None
 
 
+def _figure_path(ctx, param, value):
+    """--plot's file, refused before any work unless it ends in .png or .svg (a figure is a file, not text for '-')."""
+    if value is not None and Path(value).suffix.lower() not in (".png", ".svg"):
+        raise click.BadParameter(f"{value!r}: a figure is written to a file named .png or .svg")
+    return value
+
+
 def plot_option(what: str):
     """--plot FILE: save ``what`` as a figure (PNG or SVG, by the suffix)."""
     return click.option(
-        "--plot", type=click.Path(dir_okay=False, path_type=str), default=None, help=f"Save {what} (PNG or SVG)."
+        "--plot",
+        type=click.Path(dir_okay=False, path_type=str),
+        default=None,
+        callback=_figure_path,
+        help=f"Save {what} (PNG or SVG).",
     )
 
 
@@ -277,6 +288,9 @@ def json_text(data) -> str:
 def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
     """Write a file whole or not at all and say so on stderr; ``replaces``: the scenario a copy updates, which it
     may replace (with --overwrite), where no other file the command read may be written over."""
+    if str(path) == "-":  # standard output, as 'new -' writes
+        click.echo(content, nl=not str(content).endswith("\n"))
+        return
     from snrgain.files import write_atomic
 
     write_atomic(path, content, overwrite=overwrite, replaces=replaces)
@@ -285,7 +299,7 @@ def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
 
 def check_output(path, *, overwrite: bool) -> None:
     """Refuse, before any work, an output file that exists (without --overwrite) or has no folder."""
-    if path is not None:
+    if path is not None and str(path) != "-":  # "-": standard output (write_output)
         from snrgain.files import check_writable, claim_output
 
         claim_output(path)
