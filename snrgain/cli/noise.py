@@ -59,7 +59,7 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
     The P.372 data folder comes from --p372-dir, else $SNRGAIN_P372_DIR.
     """
     from snrgain.constants import check_frequency_hz
-    from snrgain.scenario.noise import check_p372_dir, p372_dir_named
+    from snrgain.scenario.p372dir import check_p372_dir, p372_dir_named
     from snrgain.sky.noiseday import noise_over_day
     from snrgain.units import parse_quantity
 

@@ -27,7 +27,8 @@ from .feedline import resolve_feed_lines
 from .files import read_source
 from .local import check_local_sources, reading_antenna, reading_problems
 from .model import Scenario, ScenarioModel, model_problems
-from .noise import find_p372_dir, noise_settings
+from .noise import noise_settings
+from .p372dir import find_p372_dir
 from .receiver import chain_from_section, resolve_receiver
 from .site import Site, plan_from_latlon
 from .strong import resolve_stations, stage_limits
@@ -51,7 +52,7 @@ def load(
     ``p372_dir`` is the folder of the ITU-R P.372 coefficient files given on
     the command line; it takes precedence over the scenario key
     ``noise.atmospheric.data_dir``, which takes precedence over the
-    environment variable SNRGAIN_P372_DIR (:func:`snrgain.scenario.noise.p372_dir_named`).
+    environment variable SNRGAIN_P372_DIR (:func:`snrgain.scenario.p372dir.p372_dir_named`).
     A dict's relative paths start from ``base_dir``; ``label`` names it in messages.  ``reference``: the
     name of an antenna of the scenario to rank against instead of the file's reference (the file's reference then
     stands among the candidates where that antenna stood; levels of local sources stay read where the file says,

@@ -33,8 +33,7 @@ LatLonPair = Annotated[tuple[float, float], BeforeValidator(_latlon_checked)]
 
 
 class LatLonPoints(StrictModel):
-    """An outline by latitude and longitude: ``{ latlon = [[lat, lon], ...] }``; turned into plan points about the
-    site's latitude and longitude (:func:`plan_point_of`)."""
+    """An outline by latitude and longitude, ``{ latlon = [[lat, lon], ...] }``: plan points (:func:`plan_point_of`)."""
 
     latlon: list[LatLonPair] = Field(min_length=3, max_length=1000)
 

@@ -208,6 +208,21 @@ def _switch_problem(family, spec: dict, where: str) -> str | None:
     return None
 
 
+def _name_room(group, labels, where: str):
+    """(path, message) when a switched antenna's name leaves no room for its states' names (the name, a space and the
+    state's label, each a name of at most snrgain.fields.MAX_NAME_CHARS); else None."""
+    from snrgain.fields import MAX_NAME_CHARS
+
+    room = MAX_NAME_CHARS - 1 - max(len(label) for label in labels)
+    if not isinstance(group, str) or len(group) <= room:
+        return None
+    return (
+        f"{where}.name",
+        f"a switched antenna's name of at most {room} characters here: its states are named after it, "
+        f"{group[:20]!r}... {labels[0]!r}, and a name has at most {MAX_NAME_CHARS}; this one has {len(group)}",
+    )
+
+
 def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], list[tuple[str, str]]]:
     """A switched candidate's table as one table per state, with what each state needs after it is built:
     ([(table, {"switched": SwitchedState, "reverse_of": bearing or None}), ...], problems).  A table without
@@ -246,17 +261,9 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
     degs = [float(np.degrees(b)) % 360.0 for b in bearings]
     labels = tuple(state_label(d) if n is None else named_label(n, d) for n, d in zip(state_names, degs))
     group = spec.get("name")
-    from snrgain.fields import MAX_NAME_CHARS
-
-    room = MAX_NAME_CHARS - 1 - max(len(label) for label in labels)
-    if isinstance(group, str) and len(group) > room:  # its states' names (name + label) must be names too
-        return [], [
-            (
-                f"{where}.name",
-                f"a switched antenna's name of at most {room} characters here: its states are named after it, "
-                f"{group[:20]!r}... {labels[0]!r}, and a name has at most {MAX_NAME_CHARS}; this one has {len(group)}",
-            )
-        ]
+    problem = _name_room(group, labels, where)
+    if problem:
+        return [], [problem]
     out = []
     for i, (b, label) in enumerate(zip(bearings, labels)):
         state = dict(spec)
