@@ -224,17 +224,17 @@ def test_an_output_named_like_an_input_is_refused_and_the_input_kept(tmp_path):
     ):
         res = CliRunner().invoke(cli, args)
         assert res.exit_code == 2, res.output
-        assert f"{src} is one of this command's inputs; give the output another name (nothing was written)" in (
-            res.output
-        )
+        assert f"{src} is one of this command's inputs; give the output another name" in res.output
         assert src.read_bytes() == before
     readings = tmp_path / "readings.toml"
     readings.write_text(CliRunner().invoke(cli, ["noise-readings", "--example"]).output, encoding="utf-8")
     kept = readings.read_bytes()
     res = CliRunner().invoke(cli, ["noise-readings", str(src), str(readings), "--write", str(readings), "--overwrite"])
     assert res.exit_code == 2 and "is one of this command's inputs" in res.output and readings.read_bytes() == kept
-    # another name is written as before
+    # another name is written as before; a scenario copy may update its scenario, but not go to standard output
     assert CliRunner().invoke(cli, ["rank", str(src), "-o", str(tmp_path / "r.json")]).exit_code == 0
+    res = CliRunner().invoke(cli, ["noise-readings", str(src), str(readings), "--write", "-"])
+    assert res.exit_code == 2 and "a scenario copy is written to a file" in res.output
 
 
 def test_an_output_path_ending_in_a_slash_names_a_folder(tmp_path):

@@ -560,3 +560,17 @@ def test_a_switched_antennas_name_leaves_room_for_its_states_and_locate_writes_a
         snrgain.evaluate(text.replace('name = "flag pair"', f'name = "{"F" * 78}"', 1))
     res = CliRunner().invoke(cli, ["locate", str(tmp_path / "none.toml"), "--name", " "])
     assert res.exit_code == 2 and "a name needs a letter or a digit" in res.output
+
+
+def test_a_local_source_may_not_take_a_sky_components_name():
+    # a source named "galactic" took the galactic component's place in the levels kept by name: the ranking changed
+    # by 5 dB with no error
+    import snrgain
+    from snrgain.errors import ScenarioError
+
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    old = 'name = "neighbour\'s supply"'
+    assert old in text
+    for name in ("galactic", "man-made (rural)", "atmospheric (P.372)"):
+        with pytest.raises(ScenarioError, match="names one of the sky's own noise components"):
+            snrgain.evaluate(text.replace(old, f'name = "{name}"', 1))

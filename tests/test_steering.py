@@ -214,3 +214,23 @@ def test_phasing_lines_are_the_shortest_that_give_the_phases():
     _rdf(auto)  # steered at F
     d = auto.describe()
     assert max(d["delays_ns"]) <= 0.5 / F * 1e9 + 1e-9  # a pair's lines never pass half a period
+
+
+def test_given_phases_and_their_delays_agree_in_describe():
+    # an array with given phases keeps its given delays (true-time lines, counted from the earliest element); the
+    # phases it describes are those delays' phases at the frequency, not counted from another element
+    from snrgain.antennas import from_si
+
+    a = from_si(
+        "phased-verticals",
+        positions=[[0, 0], [0, 40]],
+        height=5.0,
+        ground="moist loam",
+        steering="given",
+        phases=[0.0, 300.0],
+        phase_sense="lag",
+    )
+    a.gain_linear(F, np.array([0.0]), np.array([0.3]))
+    d = a.describe()
+    assert d["phases_deg"] == pytest.approx([0.0, 300.0])
+    assert d["delays_ns"][1] == pytest.approx(300.0 / 360.0 / F * 1e9)

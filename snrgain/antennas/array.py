@@ -457,7 +457,10 @@ class Array(Antenna):
         if f is None:
             return out  # optimised weights not yet chosen: no frequency seen
         w = self.weights_at(f)
-        lag = np.round(np.degrees(shortest_lags(w)), 9)
+        if self.optimised:  # the phases the shortest lines give (effective_delays_s)
+            lag = np.round(np.degrees(shortest_lags(w)), 9)
+        else:  # the given delays' phases at f, counted as the delays are (from the earliest element)
+            lag = np.round(np.degrees(np.mod(2 * np.pi * f * self.effective_delays_s(f), 2 * np.pi)), 9)
         out.update(
             steered_at_hz=f,
             delays_ns=[float(t * 1e9) for t in self.effective_delays_s(f)],

@@ -56,8 +56,8 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     from snrgain.scenario import load, read_source
     from snrgain.tools import layout as lay
 
-    for target in (write_to, plot):
-        check_output(target, overwrite=overwrite)
+    check_output(write_to, overwrite=overwrite, replaces=scenario)
+    check_output(plot, overwrite=overwrite)
     from snrgain.scenario.bands import one_band
 
     data, label, base_dir = read_source(Path(scenario))

@@ -67,10 +67,12 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
 
     try:  # the name it writes must be one the scenario takes (numbered "name 2" when several)
         check_name(name if sources == 1 else f"{name} {sources}")
+        if name == "galactic" or name.startswith(("atmospheric (", "man-made (")):
+            raise ValueError(f"{name!r} names one of the sky's own noise components; give the source its own name")
     except ValueError as exc:
         raise click.BadParameter(str(exc), param_hint="--name") from None
-    for target in (plot, write_to):
-        check_output(target, overwrite=overwrite)
+    check_output(plot, overwrite=overwrite)
+    check_output(write_to, overwrite=overwrite, replaces=scenario)
     data = loc.load_readings(Path(readings))
     try:
         with progress(None, f"locate: fitting {sources} source(s) to {len(data.readings)} reading(s)"):

@@ -44,7 +44,7 @@ def noise_readings(scenario, readings, example, write_to, overwrite, fmt, p372_d
         return
     if scenario is None or readings is None:
         raise click.UsageError("give a SCENARIO and a READINGS file (see --example)")
-    check_output(write_to, overwrite=overwrite)
+    check_output(write_to, overwrite=overwrite, replaces=scenario)
     rs = nr.load_readings(readings)
     with progress(None, f"noise-readings: {len(rs)} reading(s) through the pipeline"):
         f = nr.fit(rs, scenario, p372_dir=p372_dir)

@@ -297,10 +297,37 @@ def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
     click.echo(f"wrote {path}", err=True)
 
 
-def check_output(path, *, overwrite: bool) -> None:
-    """Refuse, before any work, an output file that exists (without --overwrite) or has no folder."""
-    if path is not None and str(path) != "-":  # "-": standard output (write_output)
-        from snrgain.files import check_writable, claim_output
+def check_output(path, *, overwrite: bool, replaces=None) -> None:
+    """Refuse, before any work, an output file that exists (without --overwrite), has no folder, is given for two
+    outputs, or is one of the command's input files (its arguments, --scenario) but ``replaces``, the scenario a
+    copy updates; "-" is standard output (write_output), not for a scenario copy (the command prints its own)."""
+    if path is None:
+        return
+    if str(path) == "-":
+        if replaces is not None:
+            raise ValueError("a scenario copy is written to a file: '-' would mix it with the command's own output")
+        return
+    from snrgain.files import check_writable, claim_output
 
-        claim_output(path)
-        check_writable(path, overwrite=overwrite)
+    claim_output(path)
+    check_writable(path, overwrite=overwrite, replaces=replaces)
+    _not_an_input(path, replaces)
+
+
+def _not_an_input(path, replaces) -> None:
+    """ValueError when ``path`` is the same file as one of the current command's arguments or its --scenario (the
+    files it reads), other than ``replaces``; the write itself checks the files actually read (snrgain.files)."""
+    import os
+
+    ctx = click.get_current_context(silent=True)
+    if ctx is None or not os.path.isfile(path):
+        return
+    if replaces is not None and os.path.isfile(replaces) and os.path.samefile(replaces, path):
+        return
+    for param in ctx.command.params:
+        if not (isinstance(param, click.Argument) or param.name == "scenario"):
+            continue
+        value = ctx.params.get(param.name)
+        for v in value if isinstance(value, (list, tuple)) else [value]:
+            if isinstance(v, (str, os.PathLike)) and os.path.isfile(v) and os.path.samefile(v, path):
+                raise ValueError(f"{path} is one of this command's inputs; give the output another name")

@@ -145,7 +145,7 @@ def verify(
     if spots is not None and (log_a is not None or log_b is not None):
         raise click.UsageError("--spots replaces --log-a and --log-b; give one or the other")
     check_output(plot, overwrite=overwrite)
-    check_output(write_to, overwrite=overwrite)
+    check_output(write_to, overwrite=overwrite, replaces=scenario)
     with progress(None, "verify: reading, pairing and predicting"):
         res = vf.verify(
             scenario,

@@ -88,7 +88,8 @@ were named, an explanation more than a warning)."""
 
 def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[Notice]:
     """``local-source-dominates`` (source, source_dbm, rest_dbm, over_db) for each candidate whose loudest local
-    source lies LOCAL_DOMINATES_DB or more above the rest of its noise, both at the receiver input and as medians
+    source lies LOCAL_DOMINATES_DB or more above the rest of the noise it hears (the sky and the other sources; the
+    receiving chain's own noise apart), both at the receiver input and as medians
     over the scenario's months and hours: its SNR gain then rests on how it hears that source, not on its
     directivity toward the sky."""
     from snrgain.model.spread import median  # np.median's value without loading numpy.ma

@@ -88,6 +88,14 @@ def unique_names(model: ScenarioModel) -> list[tuple[str, str]]:
                 )
             else:
                 seen[name] = i
+    for i, src in enumerate(model.noise.local):  # the sky's own components are labelled by these names
+        if src.name == "galactic" or src.name.startswith(("atmospheric (", "man-made (")):
+            out.append(
+                (
+                    f'noise.local {i + 1} ("{src.name}").name',
+                    f"{src.name!r} names one of the sky's own noise components; give the source a name of its own",
+                )
+            )
     return out
 
 
