@@ -574,3 +574,27 @@ def test_a_local_source_may_not_take_a_sky_components_name():
     for name in ("galactic", "man-made (rural)", "atmospheric (P.372)"):
         with pytest.raises(ScenarioError, match="names one of the sky's own noise components"):
             snrgain.evaluate(text.replace(old, f'name = "{name}"', 1))
+
+
+def test_a_pattern_gain_out_of_any_antennas_range_and_an_overflow_are_said(tmp_path):
+    # a pattern gain of 1e308 dBi passed check and failed later ("array of sample points is empty"); -1e308 ranked
+    # silently; a reading of 1e308 dB said "failed: (34, 'Numerical result out of range')"
+    from snrgain.antennas import from_spec
+
+    grid = [(az, el) for az in range(0, 360, 90) for el in (0, 45, 90)]
+    for gain in (1e308, -1e308, 41.0):
+        path = tmp_path / "p.csv"
+        path.write_text(
+            "azimuth_deg,elevation_deg,gain_dbi\n" + "".join(f"{a},{e},{gain if a == 90 else 0}\n" for a, e in grid)
+        )
+        with pytest.raises(Exception, match=r"gain_dbi must lie in \[-200, 40\] dBi"):
+            from_spec({"family": "tabulated", "name": "t", "file": str(path)})
+    from snrgain.cli.main import cli
+    from snrgain.tools import noisereadings as nr
+
+    readings = tmp_path / "r.toml"
+    text = nr.EXAMPLE.replace("antenna_db = -73.0", "antenna_db = 1e308", 1)
+    assert text != nr.EXAMPLE
+    readings.write_text(text, encoding="utf-8")
+    res = CliRunner().invoke(cli, ["noise-readings", str(SCENARIOS / "wren-corner.toml"), str(readings)])
+    assert res.exit_code == 2 and "too large to compute with (an overflow)" in res.output

@@ -31,6 +31,9 @@ from snrgain.fields import quantity
 
 FLOOR_DBI = -100.0
 KNOWN_COLUMNS = ("azimuth_deg", "elevation_deg", "gain_dbi", "gain_v_dbi", "gain_h_dbi")
+GAIN_RANGE_DBI = (-200.0, 40.0)
+"""A pattern's gains [dBi]: no receiving antenna of these bands has 40 dBi, and -200 dBi is a null to any sum (a gain
+of 1e308 dBi passed and failed later as 'array of sample points is empty'; -1e308 ranked silently)."""
 
 
 MAX_PATTERN_BYTES = 20_000_000
@@ -102,6 +105,14 @@ def _grid(path, cols):
             f"{path}: rows do not form a complete grid ({az_u.size} azimuths x {el_u.size} elevations "
             f"needs {az_u.size * el_u.size} rows, found {az.size})"
         )
+    for name in ("gain_dbi", "gain_v_dbi", "gain_h_dbi"):
+        g = cols.get(name)
+        if g is not None and np.any((g < GAIN_RANGE_DBI[0]) | (g > GAIN_RANGE_DBI[1])):
+            bad = float(g[(g < GAIN_RANGE_DBI[0]) | (g > GAIN_RANGE_DBI[1])][0])
+            raise ValueError(
+                f"{path}: {name} must lie in [{GAIN_RANGE_DBI[0]:g}, {GAIN_RANGE_DBI[1]:g}] dBi (a deep null as "
+                f"{GAIN_RANGE_DBI[0]:g}); found {bad:g}"
+            )
     if el_u[0] > 0 or el_u[-1] < 90:
         raise ValueError(f"{path}: elevations must cover 0 to 90 deg; found {el_u[0]:g} to {el_u[-1]:g}")
     if az_u.size < 2:

@@ -214,6 +214,12 @@ def handle_errors(fn):
             fail(str(exc), EXIT_BAD_INPUT)
         except ValueError as exc:
             fail(str(exc), EXIT_BAD_INPUT)
+        except OverflowError:  # a number of the input (a level of 1e308 dB, say) too large to compute with
+            fail(
+                "the input leads to a number too large to compute with (an overflow); check its values and the "
+                "options for one far outside what a station gives (a level of 1e308 dB, an extreme combination)",
+                EXIT_BAD_INPUT,
+            )
         except (OSError, RuntimeError, ArithmeticError) as exc:
             fail(f"failed: {exc}", EXIT_FAILURE)
 
