@@ -336,5 +336,11 @@ def check_name(value):
     return value
 
 
+def sky_component_name(name: str) -> bool:
+    """Whether ``name`` is one the sky's own noise components are labelled by (snrgain.sky.noise: "galactic",
+    "man-made (...)", "atmospheric (...)"): a local source may not take it (levels are kept by name)."""
+    return name == "galactic" or name.startswith(("atmospheric (", "man-made ("))
+
+
 Name = Annotated[str, BeforeValidator(check_name)]
 """A name of a site, antenna, target, local source, keep-out area or structure (:func:`check_name`)."""

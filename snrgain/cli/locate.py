@@ -63,11 +63,11 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
         example_text=loc.EXAMPLE, example=example, readings=readings, scenario=scenario, write_to=write_to
     ):
         return
-    from snrgain.fields import check_name
+    from snrgain.fields import check_name, sky_component_name
 
     try:  # the name it writes must be one the scenario takes (numbered "name 2" when several)
         check_name(name if sources == 1 else f"{name} {sources}")
-        if name == "galactic" or name.startswith(("atmospheric (", "man-made (")):
+        if sky_component_name(name):
             raise ValueError(f"{name!r} names one of the sky's own noise components; give the source its own name")
     except ValueError as exc:
         raise click.BadParameter(str(exc), param_hint="--name") from None

@@ -10,7 +10,7 @@ import numpy as np
 from pydantic import Field
 
 from snrgain.antennas import Antenna
-from snrgain.fields import StrictModel
+from snrgain.fields import StrictModel, sky_component_name
 from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
 from snrgain.physics import strong as strongmod
@@ -89,7 +89,7 @@ def unique_names(model: ScenarioModel) -> list[tuple[str, str]]:
             else:
                 seen[name] = i
     for i, src in enumerate(model.noise.local):  # the sky's own components are labelled by these names
-        if src.name == "galactic" or src.name.startswith(("atmospheric (", "man-made (")):
+        if sky_component_name(src.name):
             out.append(
                 (
                     f'noise.local {i + 1} ("{src.name}").name',
