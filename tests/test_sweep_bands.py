@@ -59,3 +59,40 @@ def test_a_band_key_varied_in_a_file_of_several_bands(tmp_path):
     assert [r for r in at_own if r[0] == "Beverage Europe"] == as_written
     moved = [tuple(r[k] for k in keys) for r in rows if r["band: frequency"] == "3.8 MHz"]
     assert moved != at_own
+
+
+def test_a_band_frequency_is_not_varied_in_every_band_at_once(tmp_path):
+    # Without --band one frequency would be set in every band, whose rows would still be labelled 160 m, 80 m and
+    # 40 m (they were: '80 m' rows at 1.83 MHz).  Refused before any work, naming the bands and --band.
+    res = CliRunner().invoke(
+        cli, ["sweep", str(SITE), "--vary", "band: frequency = 1.83 MHz, 3.6 MHz", "-o", str(tmp_path / "f.csv")]
+    )
+    assert res.exit_code != 0
+    assert "3 bands (160 m, 80 m, 40 m)" in res.output and "--band" in res.output
+    assert not (tmp_path / "f.csv").exists()
+
+
+def test_a_band_named_by_its_frequency_keeps_its_name_when_varied(tmp_path):
+    # Bands without a name are named by their frequency as written (targets name them so too): varying the frequency
+    # of the one --band picks changes that band alone, which keeps the name the user picked it by.  Before, every
+    # band took the frequency, and the names collided.
+    text = SITE.read_text(encoding="utf-8")
+    for name, freq in (("160 m", "1.83 MHz"), ("80 m", "3.55 MHz"), ("40 m", "7.03 MHz")):
+        text = text.replace(f'name = "{name}"\n', "").replace(f'"{name}"', f'"{freq}"')
+    site = tmp_path / "unnamed.toml"
+    site.write_text(text, encoding="utf-8")
+    out = tmp_path / "f.csv"
+    res = CliRunner().invoke(
+        cli,
+        ["sweep", str(site), "--band", "3.55 MHz", "--vary", "band: frequency = 3.55 MHz, 3.8 MHz", "-o", str(out)],
+    )
+    assert res.exit_code == 0, res.output
+    rows = _rows(out)
+    assert {r["band: frequency"] for r in rows} == {"3.55 MHz", "3.8 MHz"}
+    named = tmp_path / "named.csv"
+    res = CliRunner().invoke(
+        cli, ["sweep", str(SITE), "--band", "80 m", "--vary", "band: frequency = 3.55 MHz, 3.8 MHz", "-o", str(named)]
+    )
+    assert res.exit_code == 0, res.output
+    keys = ("band: frequency", "antenna", "target", "snr_gain_db")
+    assert [tuple(r[k] for k in keys) for r in rows] == [tuple(r[k] for k in keys) for r in _rows(named)]

@@ -169,13 +169,21 @@ def _table(data: dict, vary: Vary) -> dict:
     )
 
 
-def apply(data: dict, varies: list[Vary], values) -> dict:
-    """A copy of the raw scenario with each varied key set to its value in this design."""
+def apply(data: dict, varies: list[Vary], values, band: str | None = None) -> dict:
+    """A copy of the raw scenario with each varied key set to its value in this design.  In a scenario of several
+    bands (``[[band]]``) a band's key is set in the band ``band`` names (``--band``; it keeps that name when the
+    file names it by its frequency), else in every band."""
+    from snrgain.scenario.bands import band_label
+
     out = copy.deepcopy(data)
     for vary, value in zip(varies, values):
         top = out.get("band") if vary.table == "band" else None
-        # a scenario of several bands ([[band]]): a band's key is set in every band (one is run with --band)
-        tables = [t for t in top if isinstance(t, dict)] if isinstance(top, list) else [_table(out, vary)]
+        if isinstance(top, list):
+            tables = [t for t in top if isinstance(t, dict) and (band is None or band_label(t) == band)]
+            for table in tables:
+                table.setdefault("name", band_label(table))
+        else:
+            tables = [_table(out, vary)]
         *path, last = vary.key.split(".")
         for table in tables:
             for part in path:
@@ -270,6 +278,13 @@ _BAND_STUDIES: dict[tuple[int, str], tuple[Study, Study]] = {}
 def validate(study: Study) -> None:
     """Check every varied key before any work: its table exists, and the first and last value of each (every
     value of a list) give a valid scenario (in every band).  Raises VaryError naming the argument."""
+    for vary in study.varies:
+        if study.bands and vary.table == "band" and vary.key in ("frequency", "name"):
+            raise VaryError(
+                vary.text,
+                f"the scenario has {len(study.bands)} bands ({', '.join(study.bands)}): one {vary.key} would be set "
+                "in every band, each still named as in the file; pick the band to vary with --band",
+            )
     for band in study.bands:
         validate(study.in_band(band))
     if study.bands:
@@ -281,7 +296,7 @@ def validate(study: Study) -> None:
             values = list(base_values)
             values[i] = value
             try:
-                study.load(apply(study.data, study.varies, values))
+                study.load(apply(study.data, study.varies, values, study.band))
             except ScenarioError as exc:
                 _unvaried_fails(study, exc)
                 problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
@@ -387,7 +402,7 @@ def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
     shared = _shared(study) if study.fast else None
     varied = {v.table for v in study.varies}
     for number, values in chunk:
-        data = apply(study.data, study.varies, values)
+        data = apply(study.data, study.varies, values, study.band)
         if shared is not None and varied <= shared.alone:
             targets = [t.name for t in shared.sc.targets]
             for name in sorted(varied, key=shared.names.index):
