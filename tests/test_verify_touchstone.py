@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import pytest
 from click.testing import CliRunner
@@ -111,6 +113,27 @@ def test_bad_sweeps_are_named(tmp_path):
     )
     out = CliRunner().invoke(cli, ["calibrate", str(tmp_path / "wire.toml")])
     assert out.exit_code == 2 and "far_end" in out.output
+
+
+@pytest.mark.parametrize(
+    "body, said",
+    [
+        ("1.0 0.1 0.2\n1.1 nan 0.2\n1.2 0.3 0.1\n", "line 3: '1.1 nan 0.2' holds a value that is not a finite number"),
+        ("1.0 0.1 0.2\n1.1 abc 0.2\n", "line 3: 'abc' is not a number"),
+        ("1.0 0.1 0.2 0.5\n1.1 0.1 0.2\n", "line 2: 4 numbers; a 1-port point is 3"),
+        ("1.0 0.1 0.2\n" * 6, "the frequency 1 MHz is given more than once"),
+    ],
+)
+def test_a_sweeps_faulty_line_is_named(tmp_path, body, said):
+    # A NaN stopped calibrate with scikit-rf's 'Array must not contain infs or NaNs', naming neither file nor line;
+    # repeated frequencies passed with a warning of scikit-rf's on the terminal.
+    path = tmp_path / "sweep.s1p"
+    path.write_text("# MHz S RI R 50\n" + body)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(ts.SweepError) as err:
+            ts.read_sweep(path)
+    assert str(err.value).startswith((f"{path} {said}", f"{path}: {said}")), str(err.value)
 
 
 def test_sweep_through_a_feed_line_is_flagged(model):

@@ -54,29 +54,71 @@ class Sweep:
 
 
 def read_sweep(path: str | Path) -> Sweep:
-    """The impedance over a 1-port Touchstone file's sweep; SweepError naming the file otherwise."""
+    """The impedance over a 1-port Touchstone file's sweep; SweepError naming the file (and the line, where one is
+    at fault) otherwise."""
+    import warnings
+
     import skrf
 
     from snrgain.files import InputFileError, read_limited
 
     p = Path(path)
     try:
-        read_limited(p, limit_bytes=MAX_SWEEP_BYTES, what="sweep")
+        raw = read_limited(p, limit_bytes=MAX_SWEEP_BYTES, what="sweep")
     except InputFileError as exc:
         raise SweepError(str(exc)) from None
     try:
-        net = skrf.Network(str(p))
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # scikit-rf warns of frequencies out of order; they are sorted below
+            net = skrf.Network(str(p))
+            if net.nports == 1:
+                f = np.asarray(net.f, dtype=float)
+                z = np.asarray(net.z[:, 0, 0], dtype=complex)
     except Exception as exc:  # noqa: BLE001 - scikit-rf raises many kinds for a file it cannot read
-        raise SweepError(f"{p}: not a Touchstone file scikit-rf can read ({type(exc).__name__}: {exc})") from None
+        raise SweepError(_line_at_fault(p, raw) or f"{p}: not a Touchstone file scikit-rf can read ({exc})") from None
     if net.nports != 1:
         raise SweepError(f"{p}: a 1-port sweep (.s1p) is needed; this file has {net.nports} ports")
-    f = np.asarray(net.f, dtype=float)
-    z = np.asarray(net.z[:, 0, 0], dtype=complex)
     ok = np.isfinite(f) & np.isfinite(z)
+    if not ok.all():
+        raise SweepError(_line_at_fault(p, raw) or f"{p}: {int((~ok).sum())} points are not finite numbers")
     if ok.sum() < 5:
-        raise SweepError(f"{p}: fewer than 5 finite points")
-    order = np.argsort(f[ok])
-    return Sweep(f[ok][order], z[ok][order], str(p))
+        raise SweepError(f"{p}: fewer than 5 points (a sweep across the wire's resonances needs more)")
+    order = np.argsort(f, kind="stable")
+    repeats = np.flatnonzero(np.diff(f[order]) <= 0)
+    if repeats.size:
+        at = f[order][repeats[0]]
+        raise SweepError(f"{p}: the frequency {at / 1e6:g} MHz is given more than once; each point needs its own")
+    return Sweep(f[order], z[order], str(p))
+
+
+def _line_at_fault(p: Path, raw: bytes) -> str | None:
+    """'FILE line N: ...' for the first data line of a Touchstone 1-port file that is not three finite numbers
+    (frequency and one complex value), else None.  Comments (``!``), the option line (``#``) and Touchstone 2's
+    keyword lines (``[...]``) are passed over."""
+    text = raw.decode("utf-8", errors="replace")
+    for number, line in enumerate(text.splitlines(), start=1):
+        data = line.split("!", 1)[0].strip()
+        if not data or data.startswith(("#", "[")):
+            continue
+        words = data.split()
+        try:
+            values = [float(w) for w in words]
+        except ValueError:
+            bad = next(w for w in words if not _is_number(w))
+            return f"{p} line {number}: {bad!r} is not a number"
+        if len(values) != 3:
+            return f"{p} line {number}: {len(values)} numbers; a 1-port point is 3 (frequency and one complex value)"
+        if not np.all(np.isfinite(values)):
+            return f"{p} line {number}: {data!r} holds a value that is not a finite number"
+    return None
+
+
+def _is_number(word: str) -> bool:
+    try:
+        float(word)
+    except ValueError:
+        return False
+    return True
 
 
 def _extremes(f: np.ndarray, mag: np.ndarray):
