@@ -377,3 +377,27 @@ def test_dask_at_a_listener_that_is_no_scheduler_says_so_in_time(kind):
         for c in held:
             c.close()
     assert time.perf_counter() - t < 30.0
+
+
+def test_rows_say_where_a_design_does_not_fit_the_site():
+    # The demo's lot is 250 m x 240 m: a 300 m Beverage from its feed point toward 45 deg leaves it, and one turned
+    # north crosses the Beverage toward South America (what check says of such a scenario, snrgain.decide.lot).  The
+    # shared fast path and full runs say the same.
+    study = _study("Beverage toward Europe: length = 180 m, 300 m", "Beverage toward Europe: bearing = 45, 0")
+    chunk = list(enumerate(sw.designs(study.varies)))
+    rows = sw.run_designs(study, chunk)
+    said = {
+        (r["Beverage toward Europe: length"], r["Beverage toward Europe: bearing"]): r["placement_warnings"]
+        for r in rows
+    }
+    assert said == {
+        ("180 m", 45): "",
+        ("180 m", 0): "wires-cross",
+        ("300 m", 45): "off-lot",
+        ("300 m", 0): "off-lot; wires-cross",
+    }
+    full = _study("site: ground = moist loam", "Beverage toward Europe: length = 300 m")
+    assert not full.fast
+    rows = sw.run_designs(full, list(enumerate(sw.designs(full.varies))))
+    by = {r["antenna"]: r["placement_warnings"] for r in rows}
+    assert by == {"Beverage toward Europe": "off-lot"}

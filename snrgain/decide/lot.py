@@ -38,6 +38,8 @@ protection.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from snrgain.model.notices import Notice
@@ -100,11 +102,17 @@ def latlon_like_notices(sc) -> list[Notice]:
 
 
 def polygon(points, what: str):
-    """A valid shapely polygon from plan points, or ValueError naming ``what`` and why it is not one."""
+    """A valid shapely polygon from plan points, or ValueError naming ``what`` and why it is not one (the same
+    outline's polygon made once: a sweep's designs check against it one by one)."""
+    return _polygon(tuple((float(x), float(y)) for x, y in points), what)
+
+
+@functools.lru_cache(maxsize=64)
+def _polygon(points: tuple, what: str):
     from shapely.geometry import Polygon
     from shapely.validation import explain_validity
 
-    poly = Polygon([(float(x), float(y)) for x, y in points])
+    poly = Polygon(points)
     if not poly.is_valid:
         raise ValueError(
             f"{what}: the outline is not a simple polygon ({explain_validity(poly).lower()}); "
@@ -162,8 +170,10 @@ def _one_antenna(a, b) -> bool:
     return sa is not None and sb is not None and sa.group == sb.group
 
 
-def site_notices(sc) -> list[Notice]:
-    """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical."""
+def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
+    """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical.  With
+    ``only`` (antenna names: a sweep's design) just those antennas' own, against the others as they stand; the plan's
+    other warnings (plan points like a latitude, sources in a keep-out) are left out."""
     from shapely.geometry import Point
 
     out = []
@@ -176,7 +186,8 @@ def site_notices(sc) -> list[Notice]:
         same = [t for b, t in shapes if t is not None and _one_antenna(a, b)]
         if shape is None or not any(shape.hausdorff_distance(t) < 1e-6 for t in same):
             shapes.append((a, shape))
-    for ant, shape in shapes:
+    mine = [(a, s) for a, s in shapes if only is None or a.name in only]
+    for ant, shape in mine:
         if shape is None:
             continue
         if lot is not None and not lot.covers(shape):
@@ -190,8 +201,8 @@ def site_notices(sc) -> list[Notice]:
     wires = [(a, s) for a, s in shapes if s is not None and s.geom_type == "LineString"]
     for i, (a, s) in enumerate(wires):
         for b, t in wires[i + 1 :]:
-            if _one_antenna(a, b):  # two states of one switched antenna are the same wire
-                continue
+            if _one_antenna(a, b) or (only is not None and a.name not in only and b.name not in only):
+                continue  # two states of one switched antenna are the same wire
             if s.hausdorff_distance(t) < SAME_PLACE_M:  # alternatives laid alike (choked or not, two heights)
                 out.append(Notice("wires-same-place", a.name, {"other": b.name}))
             elif s.crosses(t) or (s.intersects(t) and not s.touches(t)):
@@ -208,14 +219,17 @@ def site_notices(sc) -> list[Notice]:
         tx = Point(*(ref.params.position or (0.0, 0.0)))
         clear = tx_clearance_m(site, sc.freq_hz)
         given = getattr(site, "tx_clearance_m", None) is not None
-        for ant, shape in shapes:
+        for ant, shape in mine:
             if shape is not None and clearance_applies(sc, ant):
                 d = float(shape.distance(tx))
                 if d < clear:
                     out.append(
                         Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear, "given": given})
                     )
-        out.extend(feed_line_notices(sc, {n: (fl.start_m, fl.end_m) for n, fl in sc.feed_lines.items()}))
+        runs = {n: (fl.start_m, fl.end_m) for n, fl in sc.feed_lines.items() if only is None or n in only}
+        out.extend(feed_line_notices(sc, runs))
+    if only is not None:
+        return out
     for src in sc.noise.local:
         if src.position_m is not None:
             for name, area in keep:

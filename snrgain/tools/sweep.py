@@ -364,9 +364,12 @@ class _Shared:
         # (snrgain.model.feedline).
         line = sc.feed_lines.get(name)
         sub = replace(sub, feed_lines={} if line is None else {ant.name: line})
+        # where it lies, among the scenario's other antennas as they stand (a wire it crosses is said, as rank says it)
+        around = replace(sub, candidates=(*sc.candidates[:k], ant, *sc.candidates[k + 1 :]))
+        placed = placement_warnings(around, {ant.name})
         sub = pipeline.steer(pipeline.with_structures(sub), self.grid, self.skies)
         p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
-        return pipeline.antenna_results(sub, p, self.skies)[1]
+        return pipeline.antenna_results(sub, p, self.skies)[1], placed.get(ant.name, "")
 
 
 _SHARED: dict[int, tuple[Study, _Shared]] = {}
@@ -406,21 +409,47 @@ def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
         if shared is not None and varied <= shared.alone:
             targets = [t.name for t in shared.sc.targets]
             for name in sorted(varied, key=shared.names.index):
-                rows += _rows(number, study.varies, values, shared.candidate(data, name), targets, False)
+                a, placed = shared.candidate(data, name)
+                rows += _rows(number, study.varies, values, a, targets, False, placed)
             continue
+        sc = study.load(data)
         if study.spread:
-            r = pipeline.evaluate(study.load(data))
+            r = pipeline.evaluate(sc)
             targets, chosen = [t["name"] for t in r.targets], list(r.candidates)
         else:
-            sc, _, _, per = pipeline.nominal(study.load(data))
+            _, _, _, per = pipeline.nominal(sc)
             targets, chosen = [t.name for t in sc.targets], per[1:]
         names = {c.name for c in chosen if c.name in varied or c.group in varied}  # a switched one: its states
-        for a in [c for c in chosen if c.name in names] or chosen:
-            rows += _rows(number, study.varies, values, a, targets, study.spread)
+        shown = [c for c in chosen if c.name in names] or chosen
+        placed = placement_warnings(sc, {c.name for c in shown})
+        for a in shown:
+            rows += _rows(number, study.varies, values, a, targets, study.spread, placed.get(a.name, ""))
     return rows
 
 
-def _rows(number, varies, values, a, targets, spread) -> list[dict]:
+PLACEMENT_CODES = ("off-lot", "in-keep-out", "wires-cross", "near-tx-vertical", "feed-line-near-tx-vertical")
+"""The site's warnings a sweep's row carries (snrgain.decide.lot: ``check`` of the design says them in full)."""
+
+
+def placement_warnings(sc, names: set[str]) -> dict[str, str]:
+    """For each of the antennas ``names`` of a design, the codes of the site's warnings about where it lies (off the
+    lot, in a keep-out, crossing a wire, near the TX vertical, its feed line near it), joined by "; ": a design
+    that wins the sweep but does not fit the lot is seen in its row."""
+    site = sc.site
+    if site.lot_m is None and not getattr(site, "keep_out", ()) and sc.reference is None:
+        return {}
+    from snrgain.decide.lot import site_notices
+
+    out: dict[str, list[str]] = {}
+    for n in site_notices(sc, only=names):
+        # a crossing is said of the first of the two wires in the file: here of the design's
+        name = n.antenna if n.antenna in names else n.values.get("other")
+        if n.code in PLACEMENT_CODES and n.code not in out.get(name, []):
+            out.setdefault(name, []).append(n.code)
+    return {k: "; ".join(v) for k, v in out.items()}
+
+
+def _rows(number, varies, values, a, targets, spread, placed: str = "") -> list[dict]:
     out = []
     fixed = {"design": number}
     for vary, value in zip(varies, values):
@@ -437,6 +466,7 @@ def _rows(number, varies, values, a, targets, spread) -> list[dict]:
             gain_toward_target_dbi=float(a.gain_dbi[i]),
             margin_db=margin,
             receiver_limited=bool(a.receiver_limited),
+            placement_warnings=placed,
         )
         if spread:
             row.update(
