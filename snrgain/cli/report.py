@@ -282,10 +282,11 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
                 raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
             names.remove("plan")
         jobs = []
+        tags = target_file_tags([t["name"] for t in results.targets])
         for name in names:
             if name in ("azimuth", "elevation"):
-                for i in range(len(results.targets)):
-                    jobs.append((d / f"{name}-target{i + 1}.{fmt}", name, {"target_index": i}))
+                for i, tag in enumerate(tags):
+                    jobs.append((d / f"{name}-{tag}.{fmt}", name, {"target_index": i}))
             else:
                 jobs.append((d / f"{name}.{fmt}", name, {"plan": plan} if name == "plan" else {}))
         existing = [str(p) for p, _, _ in jobs if p.exists()]
@@ -313,3 +314,26 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
             written = write_set(d, {p.name: writer(k) for k, (p, _, _) in enumerate(jobs)}, overwrite=overwrite)
     for path in written:
         click.echo(f"wrote {path}", err=True)
+
+
+def target_file_tags(names: list[str]) -> list[str]:
+    """Each target's part of a figure's file name: its name in lower-case letters, digits and hyphens
+    ("South America" -> "south-america"), else (a name with none of those, or one two targets share) "target" and
+    its number in the file.
+
+    >>> target_file_tags(["Europe", "South America", "Japan (long path)", "Nordamerika", "Europe!"])
+    ['europe', 'south-america', 'japan-long-path', 'nordamerika', 'target5']
+    >>> target_file_tags(["日本"])
+    ['target1']
+    """
+    import re
+
+    slugs = [re.sub(r"[^a-z0-9]+", "-", n.lower().encode("ascii", "ignore").decode()).strip("-")[:40] for n in names]
+    taken = set()
+    out = []
+    for i, slug in enumerate(slugs):
+        if not slug or slug in taken or slugs.count(slug) > 1 and slugs.index(slug) != i:
+            slug = f"target{i + 1}"
+        taken.add(slug)
+        out.append(slug)
+    return out
