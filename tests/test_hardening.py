@@ -668,3 +668,55 @@ def test_an_output_folder_that_does_not_exist_is_named_with_what_to_do(tmp_path,
     res, _ = _check(tmp_path, MINIMAL, option, str(target), command=command)
     assert res.exit_code != 0 and not missing.exists()
     assert f"folder {missing} does not exist; create it first (mkdir {missing})" in " ".join(res.output.split())
+
+
+def _children(pid: int) -> list[int]:
+    """The processes whose parent is ``pid`` (Linux /proc)."""
+    out = []
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                stat = open(f"/proc/{entry}/stat").read()
+            except OSError:
+                continue
+            if int(stat.rsplit(")", 1)[1].split()[1]) == pid:
+                out.append(int(entry))
+    return out
+
+
+@pytest.mark.skipif(not os.path.exists("/proc/self/stat"), reason="finds the workers through Linux's /proc")
+def test_ctrl_c_during_a_dask_sweep_gives_one_line_and_no_worker_tracebacks(tmp_path):
+    # Ctrl-C at a terminal reaches the whole process group: each worker of --dask local printed its KeyboardInterrupt
+    # tracebacks and its cancelled tasks' warnings under the command's own one line.  Now the workers leave it to
+    # the command, which stops the cluster.  (The distributed package is a test extra, 'scale'.)
+    pytest.importorskip("distributed")
+    out = tmp_path / "s.csv"
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    vary = [
+        "--vary",
+        "Beverage toward Europe: length = 150 m to 300 m by 0.5 m",
+        "--vary",
+        "BOG toward Europe: termination = 200, 300, 400",
+    ]
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "snrgain.cli.main", "sweep", str(DEMO), *vary, "-o", str(out), "--dask", "local"],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        cwd=REPO,
+        env=env,
+        start_new_session=True,
+    )
+    deadline = time.time() + 90
+    while time.time() < deadline and proc.poll() is None:
+        workers = [c for c in _children(proc.pid) if b"spawn_main" in open(f"/proc/{c}/cmdline", "rb").read()]
+        if len(workers) >= 2:
+            break
+        time.sleep(0.1)
+    time.sleep(3.0)  # the workers start and take their first chunks
+    assert proc.poll() is None, proc.communicate()
+    os.killpg(proc.pid, signal.SIGINT)
+    _, stderr = proc.communicate(timeout=60)
+    assert proc.returncode == 130, stderr
+    assert b"Traceback" not in stderr and b"CancelledError" not in stderr, stderr.decode()[-3000:]
+    assert stderr.decode().strip().endswith("stopped by Ctrl-C; no output was left half-written")
+    assert not out.exists() and not any(tmp_path.iterdir())

@@ -728,11 +728,20 @@ def dask_setup(worker=None) -> None:
     next array as the command line's does (snrgain.allocator; without it a worker's patterns ran 1.7 times slower
     than in-process), runs the cyclic collector as seldom as the command line's process does (snrgain.cli: without it
     the workers' designs ran slower than the command's own), and imports the modules a design needs, so that the
-    first chunk does not wait for them."""
+    first chunk does not wait for them.  A Ctrl-C at the terminal reaches every process of the command: a local worker
+    leaves it to the command, which stops the cluster (each worker printed its tracebacks), and does not log the
+    tasks that stop cancelled."""
+    import logging
+    import signal
+    import threading
+
     from snrgain.allocator import collect_less, tune
 
     tune()
     collect_less()
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
+    logging.getLogger("distributed.worker.state_machine").setLevel(logging.ERROR)
     import snrgain.decide.lot  # noqa: F401
     import snrgain.model.pipeline  # noqa: F401
     import snrgain.physics.modal  # noqa: F401
