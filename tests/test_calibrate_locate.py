@@ -59,6 +59,29 @@ def test_bog_height_recovered_from_its_own_readings(height, resting, vf_hint):
     assert "fitted_height" in res.as_dict()
 
 
+@pytest.mark.parametrize(
+    "family, height, truth_ground", [("beverage", "2.5 m", "sandy soil"), ("bog", "5 cm", "moist clay")]
+)
+def test_the_phase_branch_defaults_to_the_wire_models_own_velocity_factor(family, height, truth_ground):
+    # A 300 m wire is two to three quarter waves at 1.83 MHz: open/short readings fix its phase only up to n pi, and
+    # one fixed expected velocity factor (0.8) put a Beverage 2.5 m up at 0.76 instead of 0.95.  By default the
+    # branch is now taken near the wire model's own velocity factor over the ground the builder wrote (here not the
+    # soil the readings were made over), or near a quarter-wave resonance's when the readings hold one.
+    spec = {"family": family, "length": "300 m", "height": height, "ground": truth_ground}
+    truth = from_spec(spec)
+    pairs = [cal.OpenShort(f, *_readings_of(truth.line(f), 300.0)) for f in (1.83e6, 3.6e6)]
+    laid = from_spec({**spec, "ground": "moist loam"})
+    res = cal.calibrate(cal.WireReadings(laid, pairs))
+    assert [c.velocity_factor for c in res.constants] == pytest.approx(
+        [truth.line(f).velocity_factor for f in (1.83e6, 3.6e6)], rel=1e-9
+    )
+    assert "wire model" in res.branch[1]
+    resonance = 0.25 * truth.line(0.2e6).velocity_factor * C_M_PER_S / 300.0  # its first quarter-wave resonance
+    res = cal.calibrate(cal.WireReadings(laid, pairs, [resonance]))
+    assert res.constants[0].velocity_factor == pytest.approx(truth.line(1.83e6).velocity_factor, rel=1e-9)
+    assert "resonance" in res.branch[1]
+
+
 def test_branch_unwrapped_over_frequency():
     ant = from_spec({"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"})
     freqs = [1.0e6, 1.4e6, 1.83e6, 2.5e6, 3.6e6]

@@ -25,10 +25,10 @@ from snrgain.cli.options import (
 @click.option(
     "--expected-vf",
     type=FiniteRange(0.05, 1.0),
-    default=0.8,
-    show_default=True,
-    help="Velocity factor expected, to pick the branch of a long wire's phase (ignored when the wire is "
-    "shorter than a quarter wave).",
+    default=None,
+    help="Velocity factor expected, to pick the branch of a long wire's phase from open/short readings (ignored "
+    "when the wire is shorter than a quarter wave).  Default: a quarter-wave resonance among the readings, else "
+    "the wire model's own over the wire's ground.",
 )
 @click.option(
     "--permittivity",
@@ -115,6 +115,8 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
             f"{ln.attenuation_db_per_100m:.2f} dB/100 m ({ln.attenuation_db_per_100ft:.2f} dB/100 ft), "
             f"Z0 {ln.z0.real:.0f}{ln.z0.imag:+.0f}j ohm"
         )
+    if res.branch is not None and len(res.constants):
+        lines_out.append(f"  (the phase's branch taken near velocity factor {res.branch[0]:.3f}: {res.branch[1]})")
     for r in res.resonances:
         lines_out.append(
             f"  quarter-wave resonance at {r['freq_hz'] / 1e6:g} MHz: velocity factor {r['velocity_factor']:.3f}"

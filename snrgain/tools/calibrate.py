@@ -543,6 +543,9 @@ class Calibration:
     ground_source: str = "wire"
     """Where the wire's ground (the one the height fit holds) came from (:class:`WireReadings`)."""
     ground_source_text: str = GIVEN_TEXT
+    branch: tuple[float, str] | None = None
+    """The velocity factor near which the open/short readings' phase branch was taken, and where it came from
+    (:func:`expected_branch`); None without open/short readings."""
 
     def as_dict(self) -> dict:
         """JSON-ready (SI units in the keys)."""
@@ -550,6 +553,9 @@ class Calibration:
         out = {
             "wire": self.antenna.describe(),
             "open_short": [ln.as_dict() for ln in self.constants],
+            "branch": None
+            if self.branch is None
+            else {"expected_velocity_factor": self.branch[0], "from": self.branch[1]},
             "resonance": self.resonances,
             "fitted_ground": {
                 "conductivity_s_per_m": f.conductivity_s_per_m,
@@ -585,12 +591,31 @@ class Calibration:
         return out
 
 
+def expected_branch(readings: WireReadings, given: float | None = None) -> tuple[float, str]:
+    """The velocity factor near which the open/short readings' phase branch is taken, and where it comes from: as
+    given; else a quarter-wave resonance among the readings (the lowest: 4 L f / c, no branch to pick); else the
+    wire model's own at the lowest open/short frequency, over the wire's ground (a wire in the air near 0.95, one on
+    the soil far lower: one fixed guess picked the wrong branch for one or the other)."""
+    ant = readings.antenna
+    if given is not None:
+        return float(given), "given (--expected-vf)"
+    if readings.resonance_hz:
+        f = min(readings.resonance_hz)
+        return vf_from_quarter_wave(ant.length_m, f), f"the quarter-wave resonance at {f / 1e6:g} MHz"
+    if not readings.open_short:
+        return 0.8, "none needed"
+    f = min(r.freq_hz for r in readings.open_short)
+    return float(ant.line(f).velocity_factor), f"the wire model's at {f / 1e6:g} MHz over the wire's ground"
+
+
 def calibrate(
-    readings: WireReadings, *, expected_velocity_factor: float = 0.8, permittivity: float | None = None
+    readings: WireReadings, *, expected_velocity_factor: float | None = None, permittivity: float | None = None
 ) -> Calibration:
     """Line constants from the readings, the ground fitted to them, and the termination and transformer they
-    suggest (|Z0| less the far rod; sqrt((|Z0| + feed rod) / Z_coax))."""
+    suggest (|Z0| less the far rod; sqrt((|Z0| + feed rod) / Z_coax)).  ``expected_velocity_factor``: where the
+    phase's branch is taken (default: :func:`expected_branch`)."""
     ant = readings.antenna
+    expected_velocity_factor, branch_from = expected_branch(readings, expected_velocity_factor)
     constants = (
         line_from_open_short(
             readings.open_short, length_m=ant.length_m, expected_velocity_factor=expected_velocity_factor
@@ -639,7 +664,17 @@ def calibrate(
     if "depth" in type(ant.params).model_fields and not ant.params.depth > 0:  # a wire on the soil, not buried
         height = fit_bog_height(ant, measured, [(ln.freq_hz, abs(ln.z0)) for ln in constants])
     return Calibration(
-        ant, constants, resonances, fit, term, turns, height, swept, readings.ground_source, readings.ground_source_text
+        ant,
+        constants,
+        resonances,
+        fit,
+        term,
+        turns,
+        height,
+        swept,
+        readings.ground_source,
+        readings.ground_source_text,
+        branch=(expected_velocity_factor, branch_from) if constants else None,
     )
 
 
