@@ -214,7 +214,8 @@ def test_rank_build_and_the_report_print_the_answer():
     ohm = flag.build["termination_answer"]["termination_ohm"]
     assert flag.build["termination_ohm"] == pytest.approx(ohm)
     assert f"termination {ohm:.0f} ohm" in lines[flag.name] and f"termination {ohm:.0f} ohm" in page
-    assert f"over |Z0| {flag.build['termination_answer']['matched_ohm']:.0f} ohm" in page
+    # the matched resistor is |Z0| less the far ground, and said so (it was labelled |Z0|, which `wire` prints apart)
+    assert f"over the {flag.build['termination_answer']['matched_ohm']:.0f} ohm of |Z0| less the far ground" in page
     assert "gas discharge tube" in lines[flag.name]
 
 
@@ -239,4 +240,4 @@ def test_a_resistor_that_trades_the_rear_null_for_little_snr_is_said():
         g = variant(wire, termination=ohm).gain_linear(sc.freq_hz, np.array([b, b + np.pi]), np.array([EL20, EL20]))
         assert 10 * np.log10(g[0] / g[1]) == pytest.approx(v[key], abs=0.05)
     text = notice_text(next(n for n in r.notices if n.code == "termination-fragile"))
-    assert "beats |Z0|" in text and "the |Z0| resistor is the safer build" in text
+    assert "beats |Z0| less the far ground" in text and "the matched resistor is the safer build" in text

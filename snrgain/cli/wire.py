@@ -57,7 +57,9 @@ class WireFamily(click.Choice):
     default="rdf",
     show_default=True,
     help="What termination 'auto' maximises along the wire at 20 deg (z0: |Z0| less the far ground, the trade's "
-    "rule for a flat SWR); the same resistor rank --build and the report give for auto_for in a scenario.",
+    "rule for a flat SWR); the same resistor rank --build and the report give for that auto_for in a scenario.  "
+    "A scenario's default, auto_for = 'snr', weighs the site's own noise, which this command does not know: "
+    "rank --build gives that one.",
 )
 @click.option(
     "--feed-ground",

@@ -116,11 +116,12 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     if n.code == "termination-fragile":
         return (
-            f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats |Z0| "
-            f"({v['matched_ohm']:.0f} ohm) by only {v['over_matched_db']:.2f} dB, yet gives a front-to-back of "
-            f"{v['front_to_back_db']:.1f} dB against {v['front_to_back_matched_db']:.1f} dB at |Z0|: what it adds "
-            "rests on the noise as modelled (its sources' bearings and levels, the storms' directions), the rear "
-            "null it gives up does not; unless you trust that model, the |Z0| resistor is the safer build "
+            f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats |Z0| less the far "
+            f"ground ({v['matched_ohm']:.0f} ohm) by only {v['over_matched_db']:.2f} dB, yet gives a front-to-back "
+            f"of {v['front_to_back_db']:.1f} dB against {v['front_to_back_matched_db']:.1f} dB at "
+            f"{v['matched_ohm']:.0f} ohm: what it adds rests on the noise as modelled (its sources' bearings and "
+            "levels, the storms' directions), the rear null it gives up does not; unless you trust that model, the "
+            "matched resistor is the safer build "
             '(termination in ohms, or auto_for = "z0")'
         )
     if n.code == "local-source-dominates":

@@ -402,9 +402,9 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                     crit += f" toward {ans['target']}"
                 bits.append(
                     f"{'you gave it; ' if b.get('termination_given') else ''}best {crit} at "
-                    f"{ans['termination_ohm']:.0f} ohm, {ans['over_matched_db']:.2f} dB over |Z0| "
-                    f"{ans['matched_ohm']:.0f} ohm; {ans['loss_at_0p7_db']:.2f} / {ans['loss_at_1p4_db']:.2f} dB "
-                    f"lost at 0.7x / 1.4x; resistor {ans['caution_short']}"
+                    f"{ans['termination_ohm']:.0f} ohm, {ans['over_matched_db']:.2f} dB over the "
+                    f"{ans['matched_ohm']:.0f} ohm of |Z0| less the far ground; {ans['loss_at_0p7_db']:.2f} / "
+                    f"{ans['loss_at_1p4_db']:.2f} dB lost at 0.7x / 1.4x; resistor {ans['caution_short']}"
                 )
             if b.get("end_to_end_loss_db", 0.0) > 20.0:
                 bits.append(
