@@ -411,6 +411,30 @@ def test_locate_writes_a_placed_source_and_replaces_one_of_the_same_name(tmp_pat
     assert runner.invoke(cli, ["rank", str(second)]).exit_code == 0
 
 
+def test_an_ambiguous_bearing_is_written_on_the_side_of_the_source_it_replaces():
+    # A loop alone cannot tell a bearing from the opposite one: the copy took the fit's side even where the source of
+    # the same name it replaced stood on the other (a tester's neighbour's garage to the west went in 60 m east, off
+    # the lot).  It now takes the replaced source's side; an unambiguous fit, or no source to replace, is as fitted.
+    from dataclasses import replace
+
+    from snrgain.tools import locate as loc
+
+    base = loc.LocateResult(True, "fit converged", [], 50.0, 0.5, np.zeros(0), np.zeros(0))
+    res = replace(base, sources=[loc.FittedSource(100.0, 5.0, 10.0, 80.0, True)])
+    text = '[[noise.local]]\nname = "garage"\n'
+
+    def bearing(extra, result=res, at=None, name="garage"):
+        return loc.sided(result, text + extra, at_m=at, name=name).sources[0].bearing_deg
+
+    assert bearing('bearing = "280 deg"') == pytest.approx(280.0)
+    assert bearing("bearing = 130") == pytest.approx(100.0)
+    assert bearing('position = ["-40 m", "0 m"]', at=np.array([0.0, 10.0])) == pytest.approx(280.0)
+    assert bearing('position = ["-40 m", "0 m"]') == pytest.approx(100.0)  # no reading point: no side
+    assert bearing("bearing = 280", name="another") == pytest.approx(100.0)
+    sure = replace(base, sources=[loc.FittedSource(100.0, 5.0, 10.0, 80.0, False)])
+    assert bearing("bearing = 280", result=sure) == pytest.approx(100.0)
+
+
 def test_a_distance_needs_the_reading_point(tmp_path):
     runner = CliRunner()
     ex = runner.invoke(cli, ["locate", "--example"]).stdout

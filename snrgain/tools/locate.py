@@ -441,7 +441,12 @@ def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str
 
     blocks = []
     for i, (s, label) in enumerate(zip(res.sources, source_names(res, name))):
-        note = f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell)" if s.ambiguous_180 else ""
+        note = (
+            f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell; this side is the one of the source "
+            "of this name it replaces, where there was one)"
+            if s.ambiguous_180
+            else ""
+        )
         head = f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
         dist = None if distances_m is None else distances_m[min(i, len(distances_m) - 1)]
         if at_m is not None and dist is not None:
@@ -460,6 +465,36 @@ def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str
     return "".join(blocks)
 
 
+def sided(res: LocateResult, text: str, *, at_m=None, name: str = "located source") -> LocateResult:
+    """``res`` with each source whose readings cannot tell its bearing from the opposite one (``ambiguous_180``) on
+    the side of the [[noise.local]] of the same name it replaces in the scenario ``text`` (its bearing, or its
+    position seen from the reading point ``at_m``), where that one says a side; the others as fitted."""
+    import tomllib
+    from dataclasses import replace
+
+    from snrgain.units import parse_quantity
+
+    local = tomllib.loads(text).get("noise", {}).get("local", [])
+    old = {t.get("name"): t for t in local if isinstance(t, dict)} if isinstance(local, list) else {}
+    sources = []
+    for s, label in zip(res.sources, source_names(res, name)):
+        was = old.get(label)
+        bearing = None
+        try:
+            if was is not None and "bearing" in was:
+                bearing = np.degrees(parse_quantity(was["bearing"], "angle"))
+            elif was is not None and "position" in was and at_m is not None:
+                e, n = (parse_quantity(v, "length") for v in was["position"])
+                bearing = np.degrees(np.arctan2(e - at_m[0], n - at_m[1]))
+        except (TypeError, ValueError):
+            bearing = None  # a table the scenario's check refuses anyway: no side to take from it
+        off = None if bearing is None else abs((s.bearing_deg - bearing + 180.0) % 360.0 - 180.0)
+        if s.ambiguous_180 and off is not None and off > 90.0:
+            s = replace(s, bearing_deg=(s.bearing_deg + 180.0) % 360.0)
+        sources.append(s)
+    return replace(res, sources=sources)
+
+
 def with_sources(text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
     """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
     table removed), the others kept; refuses a failed fit."""
@@ -469,6 +504,7 @@ def with_sources(text: str, res: LocateResult, *, at_m=None, distances_m=None, n
 
     if not res.ok:
         raise LocateError("the fit failed, so no sources were written: " + res.message)
+    res = sided(res, text, at_m=at_m, name=name)
     kept = remove_tables(text, "[[noise.local]]", set(source_names(res, name)))
     out = kept.rstrip("\n") + "\n" + scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name)
     tomllib.loads(out)  # still one valid file
