@@ -194,3 +194,19 @@ def test_ground_class_and_offset_recovered_together(tmp_path):
     assert site["ground"] == "very dry ground" and site["name"] == "Wren Corner"
     rank = CliRunner().invoke(cli, ["rank", str(dest)])
     assert rank.exit_code == 0 and not _warnings_beside_local(rank.output)
+
+
+def test_a_fitted_level_beyond_p372s_curves_is_said():
+    # ITU-R P.372, Table 1 (Fam = c - d log10 f[MHz]): city c 76.8, d 27.7; quiet rural c 53.6, d 28.6; Table 2's
+    # decile deviations (rural's for quiet rural: upper 9.2, lower 4.6 dB; residential's upper 10.6).  A tester's
+    # verify fit put a quiet-rural site 25.5 dB up: Fa 63.4 dB at 3.525 MHz, 1.8 dB over the city curve (61.6 dB),
+    # and nothing said it.
+    city = 76.8 - 27.7 * np.log10(3.525)
+    quiet = 53.6 - 28.6 * np.log10(3.525)
+    note = learn.beyond_p372_note("quiet rural", 3.525e6, 25.5)
+    assert f"Fa {quiet + 25.5:.1f} dB at 3.525 MHz, lies 25.5 dB above the quiet rural median" in note
+    assert f"{quiet + 25.5 - city:.1f} dB above P.372's city median ({city:.1f} dB)" in note
+    assert learn.beyond_p372_note("residential", 1.83e6, 10.0) is None  # within its upper decile, 10.6 dB
+    assert "beyond its upper decile (10.6 dB)" in learn.beyond_p372_note("residential", 1.83e6, 11.0)
+    assert learn.beyond_p372_note("quiet rural", 1.83e6, -4.0) is None  # within its lower decile, 4.6 dB
+    assert "quiet-rural median" in learn.beyond_p372_note("quiet rural", 1.83e6, -5.0)

@@ -64,6 +64,41 @@ def man_made_table(data: dict) -> dict:
     return mm
 
 
+def beyond_p372_note(environment: str, freq_hz: float, offset_db: float) -> str | None:
+    """A note when a fitted man-made offset over the environment's P.372 median lies beyond that environment's own
+    decile deviations (ITU-R P.372, Table 2: above its upper decile, or below its lower), saying too where the level
+    stands against the city curve (the loudest P.372 lists) or the quiet-rural one (the quietest): another
+    environment, a local source near the antennas, or readings taken on another antenna than the scenario names
+    explain such a fit better than the site's man-made level.  None otherwise."""
+    from noisemodels import p372
+
+    own = p372.man_made(freq_hz, environment=environment)
+    fa = float(own.fa_db) + offset_db
+    at = f"Fa {fa:.1f} dB at {freq_hz / 1e6:g} MHz"
+    if offset_db > own.du_db:
+        city = float(p372.man_made(freq_hz, environment="city").fa_db)
+        where = (
+            f", {fa - city:.1f} dB above P.372's city median ({city:.1f} dB), louder than any environment it lists"
+            if fa > city
+            else ""
+        )
+        return (
+            f"the fitted man-made level, {at}, lies {offset_db:.1f} dB above the {environment} median, beyond its "
+            f"upper decile ({own.du_db:.1f} dB){where}: a noisier environment, a source near the antennas (placed in "
+            "[[noise.local]]) or readings taken on another antenna than the scenario names explain it better; "
+            "check before writing it"
+        )
+    if offset_db < -own.dl_db:
+        quiet = float(p372.man_made(freq_hz, environment="quiet rural").fa_db)
+        where = f", {quiet - fa:.1f} dB below P.372's quiet-rural median ({quiet:.1f} dB)" if fa < quiet else ""
+        return (
+            f"the fitted man-made level, {at}, lies {-offset_db:.1f} dB below the {environment} median, beyond its "
+            f"lower decile ({own.dl_db:.1f} dB){where}: a quieter environment, or the chain's gains and the "
+            "readings' antennas, explain it better; check before writing it"
+        )
+    return None
+
+
 def current_offset(data: dict) -> float:
     """The scenario's man-made offset [dB] as the schema reads it (0 when not set)."""
     from snrgain.scenario.noise import ManMade
@@ -341,6 +376,17 @@ def fit_offset(
             "pairs point outside what an offset can explain; check the antennas' names and the scenario's other noise"
         )
     p1 = one["after"]
+    from snrgain.scenario.noise import ManMade
+    from snrgain.units import parse_quantity
+
+    try:
+        freq = float(parse_quantity(data["band"]["frequency"], "frequency"))
+    except (KeyError, TypeError, ValueError):
+        freq = None  # a scenario of several bands: the level is not said at one frequency
+    if freq is not None:
+        beyond = beyond_p372_note(ManMade.model_validate(man_made_table(data)).environment, freq, best)
+        if beyond:
+            notes.append(beyond)
     rows = [
         {
             "target": g.target,

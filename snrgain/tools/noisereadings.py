@@ -530,6 +530,11 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
             "man-made noise is under a fifth of every reading: the other components and the chain dominate, so the "
             "man-made level is poorly determined; read on an antenna that hears the local sources less"
         )
+    from snrgain.tools.learn import beyond_p372_note
+
+    beyond = beyond_p372_note(env, float(freq), before + delta)
+    if beyond:
+        notes.append(beyond)
     return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes)
 
 
