@@ -28,7 +28,8 @@ A reading on an antenna where other noise dominates says little about man-made n
 is steep there; so the fitted offset is the least-squares fit in the readings' own dB (where reading errors are
 about constant): it minimises sum_i (10 log10(T_A,i + T_e,i) - 10 log10(T_other,i + T_mm,i 10^(delta/10) +
 T_e,i))^2 over delta (a 1 dB grid, then :func:`scipy.optimize.minimize_scalar`), each reading counting by how
-much of it is man-made.  Its uncertainty: the readings' scatter s about the fit, and the offset's standard error
+much of it is man-made.  Its uncertainty: the readings' scatter s about the fit (never less than one reading's
+least uncertainty, READING_FLOOR_DB), and the offset's standard error
 s / sqrt(sum_i share_i^2) (share_i: the man-made part of reading i, the derivative of its dB by the offset's),
 times 1.645 for a 90 % interval (linearised least squares, e.g. P. R. Bevington and D. K. Robinson, "Data
 Reduction and Error Analysis for the Physical Sciences", 3rd ed. (2003), ch. 8).
@@ -57,6 +58,10 @@ SMALL_RISE_DB = 3.0
 EDGE_DB = 0.5
 """A fit within this of an end of the schema's offset range is taken as stopped there by the range (the search's
 last step is 0.01 dB, so a fit inside the range by more than half a grid cell found a minimum of its own)."""
+READING_FLOOR_DB = 1.0
+"""The least uncertainty of one noise reading [dB]: a receiver's level or S-meter reading over a minute of noise
+(common practice); the fitted offset's tolerance is never narrower than this one's over the readings'
+sensitivities."""
 MAX_TOLERANCE_DB = 10.0
 """A wider 90 % half-width than this and the fit is not a result: P.372's environment curves lie 4-14 dB apart at
 the low bands (city, residential, rural, quiet rural; ITU-R P.372 Table 2), so +-10 dB spans two or more of them
@@ -322,7 +327,7 @@ class NoiseFit:
     def not_determined_because(self) -> list[str]:
         """Why the readings do not fix the level (empty when they do): no reading holds man-made noise beyond the
         rest, the fit stopped at an end of the schema's range, or its 90 % interval is wider than
-        :data:`MAX_TOLERANCE_DB` (an unknown tolerance, from a single reading, is not a reason: a note says so)."""
+        :data:`MAX_TOLERANCE_DB` (a single reading's rests on :data:`READING_FLOOR_DB`; a note says so)."""
         from snrgain.tools.learn import OFFSET_RANGE_DB
 
         out = []
@@ -522,7 +527,10 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
     n = len(used)
     scatter = float(np.sqrt(np.sum(resid(delta) ** 2) / (n - 1))) if n > 1 else 0.0
     info = float(np.sum(share**2))
-    se = scatter / np.sqrt(info) if n > 1 and info > 0 else float("nan")
+    # the readings' own scatter, never less than one reading's least uncertainty: one reading, or a few that happen
+    # to agree, whose man-made share is a few per cent fixed nothing (a tester's 0.3 % share fitted -20.6 dB, called
+    # determined, and a 0.2 dB change of the reading undid it)
+    se = max(scatter, READING_FLOOR_DB) / np.sqrt(info) if info > 0 else float("nan")
     if n < 3:
         notes.append(f"only {n} usable reading(s): take readings over several evenings to know the spread")
     if np.max(share) < 0.2:
