@@ -6,6 +6,7 @@ from click.testing import CliRunner
 import snrgain
 from snrgain.cli.main import cli
 from snrgain.errors import ScenarioError
+from snrgain.scenario import load
 from tests.conftest import SCENARIOS
 
 BASE = """
@@ -69,7 +70,7 @@ def test_a_wire_inside_the_lot_and_clear_of_everything_draws_no_warning():
 @pytest.mark.parametrize(
     "cand, code",
     [
-        ('position = [0, 0]\nbearing = 0\nlength = "250 m"', "off-lot"),
+        ('position = [5, 0]\nbearing = 0\nlength = "250 m"', "off-lot"),  # 5 m from the vertical at the origin
         ('position = [50, 74]\nbearing = 90\nlength = "100 m"', "in-keep-out"),  # 4 m past the TV
         ('position = [100, 20]\nbearing = 90\nlength = "60 m"', "wires-cross"),
         # the inside wire again, 30 cm aside (an alternative with a choke, another height): said as such, not a cross
@@ -178,3 +179,34 @@ def test_a_local_source_that_is_most_of_a_candidates_noise_is_said():
 
     text = notice_text(next(n for n in r.notices if n.code == "local-source-dominates" and n.antenna == "whip"))
     assert text.startswith("whip: the local source 'tv' is most of its noise (")
+
+
+@pytest.mark.parametrize(
+    "cand, field",
+    [
+        ('family = "beverage"\nheight = "2 m"\nposition = [0, 0]\nbearing = 45\nlength = "150 m"', "position"),
+        ('family = "beverage"\nheight = "2 m"\nposition = [-5, -5]\nbearing = 45\nlength = "150 m"', "position"),
+        ('family = "vertical"\nheight = "6 m"\nposition = [0.2, 0]', "position"),
+        ('family = "phased-verticals"\nheight = "6 m"\npositions = [[0.5, 0], [0.5, 20]]', "positions"),
+    ],
+)
+def test_an_antenna_on_the_transmitting_vertical_is_an_input_error(cand, field):
+    # The vertical stands at the plan's origin (the site has a lot).  A Beverage fed at its base read 56 dB louder than
+    # the vertical itself (S9+40) and a whip 0.2 m off drew no word; a wire through its base was said to lie 7 m away.
+    c = f'[[candidate]]\nname = "x"\n{cand}\n'
+    with pytest.raises(ScenarioError) as err:
+        load(BASE.format(extra_site="", candidates=c))
+    (path, message), *_ = [(p, m) for p, m in err.value.problems if "transmitting vertical" in m]
+    assert path == f'candidate 2 ("x").{field}' and "at least 1 m away" in message
+
+
+def test_structures_in_one_place_or_named_twice_are_input_errors():
+    at_tx = 'structures = [{ name = "tower", position = [0.5, 0], height = "18 m" }]'
+    with pytest.raises(ScenarioError, match=r'site.structures 1 \("tower"\).position: it stands 0.50 m from the '):
+        load(BASE.format(extra_site=at_tx, candidates=""))
+    twice = (
+        'structures = [{ name = "t", position = [30, 40], height = "18 m" }, '
+        '{ name = "t", position = [60, 40], height = "9 m" }]'
+    )
+    with pytest.raises(ScenarioError, match=r"name 't' is used twice"):
+        load(BASE.format(extra_site=twice, candidates=""))

@@ -268,11 +268,16 @@ def test_placed_sources_under_another_reference():
         load(on_pair)
     assert any(p.endswith("read_on") and "measured_at" in m for p, m in err.value.problems)
     # a placed fa stays where the file's reference stands (its default measured_at), so each antenna's noise moves
-    # only by the compact-source approximation of the reference's pickup (10 deg spread): about 0.1 dB here
+    # only by how the reference in force hears the source against a monopole at its own place (the field's ratio
+    # carries the level there): the compact-source approximation (10 deg spread), and, the short vertical standing
+    # 22 m from the resonant vertical with the source beyond it, the vertical's shadow, which the field's ratio does
+    # not see (3.4 dB here, NEC-2's order: tests/test_near_scatter.py), half of it offset by the short vertical's own
+    # near-field reading: 0.6 dB in all (0.05 dB before the vertical's share of a near source was read through its
+    # own currents).  A known limit of the field's ratio under another reference, said in the README.
     fa = scenario(ants[0], ants[1:], local=[{"name": "shed", "position": ["120 m", "-30 m"], "fa": 70}])
     a, b = evaluate(load(fa)), evaluate(load(fa, reference="short vertical"))
     for x in a.antennas:
-        np.testing.assert_allclose(np.asarray(b.antenna(x.name).noise_dbm), np.asarray(x.noise_dbm), atol=0.2)
+        np.testing.assert_allclose(np.asarray(b.antenna(x.name).noise_dbm), np.asarray(x.noise_dbm), atol=0.7)
 
 
 def test_a_reference_with_a_feed_line_is_taken_without_it_and_says_so(tmp_path):

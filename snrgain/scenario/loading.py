@@ -32,7 +32,7 @@ from .p372dir import find_p372_dir
 from .receiver import chain_from_section, resolve_receiver
 from .site import Site, plan_from_latlon
 from .strong import resolve_stations, stage_limits
-from .structures import transmitting_vertical
+from .structures import clear_of_scatterers, transmitting_vertical
 from .targets import resolve_targets
 from .times import resolve_times
 
@@ -134,6 +134,7 @@ def _after_antennas(model: ScenarioModel, built: Built, file_reference, length_u
         if problems:
             return None, {}, problems
     transmitting, problems = transmitting_vertical(model.site.transmitting, built, file_reference)
+    problems = problems or clear_of_scatterers(transmitting, built, model.site)
     if problems or not built.feed_lines:
         return transmitting, {}, problems
     where_ref = built.antennas[0].params.position or (0.0, 0.0)

@@ -59,3 +59,61 @@ def transmitting_vertical(given: str | None, built, file_reference) -> tuple[str
             )
         ]
     return given, []
+
+
+MIN_TX_GAP_M = 1.0
+"""The least distance on the plan between the transmitting vertical (or a structure) and any receiving antenna's feed
+point, wire or element [m]: closer, the two stand in one place (a wire through the vertical's base, a whip on it)
+and the re-radiation's coupling is not defined (it read a Beverage 56 dB louder than the vertical itself)."""
+
+
+def clear_of_scatterers(transmitting: str | None, built, site) -> list[tuple[str, str]]:
+    """Every receiving antenna stands at least :data:`MIN_TX_GAP_M` on the plan from the transmitting vertical's base
+    (where :func:`snrgain.model.scatter.tx_antenna` stands it: its position, or the plan's origin when the site has a
+    lot; nothing is said without either) and from every structure's foot.  Problems as (path, message)."""
+    import numpy as np
+
+    from snrgain.scenario.local import _antenna_outline, _gap_m
+
+    feet = []
+    names = [a.name for a in built.antennas]
+    if transmitting in names:
+        tx = built.antennas[names.index(transmitting)]
+        if tx.params.position is not None or site.lot is not None:
+            feet.append((f"the transmitting vertical ({transmitting!r})", tx.params.position or (0.0, 0.0)))
+    structures = list(getattr(site, "structures", ()) or ())
+    out = []
+    for i, st in enumerate(structures):  # a structure on the vertical's spot, or on another's
+        if st.name in [o.name for o in structures[:i]]:
+            out.append((f'site.structures {i + 1} ("{st.name}").name', f"name {st.name!r} is used twice"))
+            continue
+        for what, foot in [*feet, *((f"the structure {o.name!r}", o.position) for o in structures[:i])]:
+            gap = float(np.hypot(*(np.asarray(st.position, dtype=float) - np.asarray(foot, dtype=float))))
+            if gap < MIN_TX_GAP_M:
+                out.append(
+                    (
+                        f'site.structures {i + 1} ("{st.name}").position',
+                        f"it stands {gap:.2f} m from {what}: two structures cannot stand in one place",
+                    )
+                )
+                break
+    feet += [(f"the structure {st.name!r}", st.position) for st in structures]
+    for ant, where in zip(built.antennas, built.wheres):
+        placed = ant.params.position is not None or getattr(ant, "positions", None) is not None
+        if ant.composite or ant.name == transmitting or not placed:
+            continue
+        for what, foot in feet:
+            point = np.asarray([float(v) for v in foot], dtype=float)
+            gap = min(_gap_m(point, shape) for shape in _antenna_outline(ant, (0.0, 0.0)))
+            if gap < MIN_TX_GAP_M:
+                key = "positions" if getattr(ant, "positions", None) is not None else "position"
+                out.append(
+                    (
+                        f"{where}.{key}",
+                        f"it stands {gap:.2f} m from {what} on the plan: two antennas cannot stand in one place; keep "
+                        f"every feed point, wire and element at least {MIN_TX_GAP_M:g} m away (half a wavelength "
+                        "from a transmitting vertical is common practice)",
+                    )
+                )
+                break
+    return out
