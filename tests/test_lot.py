@@ -210,3 +210,16 @@ def test_structures_in_one_place_or_named_twice_are_input_errors():
     )
     with pytest.raises(ScenarioError, match=r"name 't' is used twice"):
         load(BASE.format(extra_site=twice, candidates=""))
+
+
+def test_a_layout_bearing_range_runs_clockwise_and_no_more_than_half_round():
+    # ["60 deg", "30 deg"] was read as the 330 deg from 60 clockwise through north, and layout pointed a Beverage
+    # meant for 30-60 deg at 295 deg without a word.  A range through north of less than half a turn still holds.
+    from tests.conftest import REPO
+
+    text = (REPO / "tests" / "data" / "layout-two-beverages.toml").read_text(encoding="utf-8")
+    assert 'bearing = ["30 deg", "60 deg"]' in text
+    with pytest.raises(ScenarioError, match=r"from 60 deg clockwise to 30 deg spans 330 deg.*write \[30, 60\]"):
+        load(text.replace('bearing = ["30 deg", "60 deg"]', 'bearing = ["60 deg", "30 deg"]'))
+    sc = load(text.replace('bearing = ["30 deg", "60 deg"]', 'bearing = ["330 deg", "30 deg"]'))
+    assert sc.candidates

@@ -9,6 +9,7 @@ from dataclasses import field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 from pydantic import Field, ValidationError, model_validator
 
 from snrgain.antennas import FAMILIES, Antenna, SpecError
@@ -38,6 +39,14 @@ class PlaceSection(StrictModel):
     def _ranges(self):
         if self.length is not None and self.length[0] > self.length[1]:
             raise ValueError(f"length: the range runs backwards ({self.length[0]:g} m > {self.length[1]:g} m)")
+        if self.bearing is not None:
+            a, b = (float(np.degrees(x)) % 360.0 for x in self.bearing)
+            span = (b - a) % 360.0
+            if span > 180.0:  # clockwise from the first: ["60 deg", "30 deg"] ran 330 deg through north
+                raise ValueError(
+                    f"bearing: from {a:g} deg clockwise to {b:g} deg spans {span:g} deg, past north and round; "
+                    f"write [{b:g}, {a:g}] for the {360.0 - span:g} deg between them, or split a wider range"
+                )
         return self
 
     def problem_for(self, antenna) -> str | None:
