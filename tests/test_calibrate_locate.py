@@ -525,3 +525,28 @@ def test_a_fit_inside_its_range_is_a_ground_to_write():
     pairs = [cal.OpenShort(f, *_readings_of(truth.line(f), 60.0)) for f in (1.83e6, 3.6e6)]
     res = cal.calibrate(cal.WireReadings(truth, pairs), expected_velocity_factor=0.5)
     assert res.fit.usable and res.fit.at_bound == () and res.as_dict()["fitted_ground"]["scenario_value"]
+
+
+def test_a_locate_readings_bearing_is_where_its_antenna_turns(tmp_path):
+    # A loop reading without a bearing was taken as pointing north (it then "missed by 6.5 dB" and widened the
+    # bearing's uncertainty from 2 to 12 deg); a bearing on the vertical's reading was said to be an unknown key of
+    # [antenna.vertical].  Both are said at the reading.
+    from snrgain.errors import ReadingsError
+    from snrgain.tools import locate as loc
+
+    text = _loop_file([-111.5, -109.0, -103.5, -100.6, -100.4, -103.8], -86)
+    path = tmp_path / "r.toml"
+    path.write_text(text.replace("bearing = 60\n", "", 1))
+    with pytest.raises(ReadingsError) as err:
+        loc.load_readings(path)
+    assert err.value.problems == [
+        (
+            "reading 3.bearing",
+            "the small-loop 'loop' hears by direction: give the bearing it pointed for this reading "
+            "(or one bearing in [antenna.loop])",
+        )
+    ]
+    path.write_text(text.replace('antenna = "vertical"\n', 'antenna = "vertical"\nbearing = 90\n'))
+    with pytest.raises(ReadingsError) as err:
+        loc.load_readings(path)
+    assert err.value.problems == [("reading 7.bearing", "a vertical has no bearing: it hears all round")]

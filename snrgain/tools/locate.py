@@ -131,6 +131,7 @@ def load_readings(path: str | Path) -> NoiseReadings:
 
     from pydantic import Field
 
+    from snrgain.antennas import FAMILIES
     from snrgain.antennas.base import SpecError, build, item_label
     from snrgain.errors import ReadingsError
     from snrgain.fields import Bearing, GroundField, PlanPoint, PowerDbm, StrictModel, decibels, quantity
@@ -175,6 +176,21 @@ def load_readings(path: str | Path) -> NoiseReadings:
         if r.antenna not in rf.antenna:
             continue
         spec = {"ground": data.get("ground", "moist loam"), **rf.antenna[r.antenna]}
+        family = FAMILIES.get(spec.get("family")) if isinstance(spec.get("family"), str) else None
+        turns = family is not None and "bearing" in family.params.model_fields
+        where = item_label("reading", i, None)
+        if r.bearing is not None and family is not None and not turns:
+            problems.append((f"{where}.bearing", f"a {spec['family']} has no bearing: it hears all round"))
+            continue
+        if r.bearing is None and turns and "bearing" not in spec:
+            problems.append(
+                (
+                    f"{where}.bearing",
+                    f"the {spec['family']} {r.antenna!r} hears by direction: give the bearing it pointed for this "
+                    "reading (or one bearing in [antenna." + r.antenna + "])",
+                )
+            )
+            continue
         if r.bearing is not None:
             spec["bearing"] = data["reading"][i]["bearing"]
         try:
