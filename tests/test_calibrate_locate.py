@@ -550,3 +550,22 @@ def test_a_locate_readings_bearing_is_where_its_antenna_turns(tmp_path):
     with pytest.raises(ReadingsError) as err:
         loc.load_readings(path)
     assert err.value.problems == [("reading 7.bearing", "a vertical has no bearing: it hears all round")]
+
+
+def test_a_ground_fit_the_readings_do_not_fix_is_not_written():
+    # Inside its ranges a fit may still fix nothing: from a pair of Touchstone sweeps a tester's conductivity came out
+    # "x/÷ 4.5e37" and --write put it into [site]; a file whose readings no soil meets (residual rms 3.4 in their
+    # uncertainties) passed as well.  Neither is a ground to use; one within bounds is.
+    good = cal.GroundFit(0.005, 1.5, 13.0, 2.0, 0.8, False)
+    assert good.usable and good.unusable_text() == ""
+    loose = cal.GroundFit(4.4e-5, 4.46e37, 7.8, 4.5, 1.55, False)
+    assert not loose.usable and "do not determine the conductivity (x/÷ 4.46e+37" in loose.unusable_text()
+    off = cal.GroundFit(2.7e-5, 1.47, 2.5, 0.23, 3.44, False)
+    assert not off.usable and "no soil meets the readings (residual rms 3.44" in off.unusable_text()
+
+
+def test_two_open_short_pairs_at_one_frequency_are_refused():
+    ln = from_spec({"family": "bog", "length": "76.2 m", "ground": "moist loam"}).line(F)
+    zoc, zsc = _readings_of(ln, 76.2)
+    with pytest.raises(cal.ReadingError, match=r"reading 2: a second pair at 1.83 MHz \(reading 1 is there too\)"):
+        cal.line_from_open_short([cal.OpenShort(F, zoc, zsc), cal.OpenShort(F, 1.2 * zoc, zsc)], length_m=76.2)

@@ -148,7 +148,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         eps_txt = f"{g['permittivity']:.3g} +- {g['permittivity_sigma']:.2g}"
     lines_out.append(
         f"  fitted ground: conductivity {g['conductivity_s_per_m'] * 1e3:.3g} mS/m (x/÷ "
-        f"{g['conductivity_uncertainty_factor']:.2f}), permittivity {eps_txt}; residual rms "
+        f"{g['conductivity_uncertainty_factor']:.3g}), permittivity {eps_txt}; residual rms "
         f"{g['residual_rms']:.2f} (in measurement uncertainties)"
     )
     if res.fit.usable:

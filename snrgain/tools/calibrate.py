@@ -74,6 +74,14 @@ def check_readings(readings: list[OpenShort], length_m: float) -> None:
                 f"({r.z_open_ohm.real:g}{r.z_open_ohm.imag:+g}j ohm); only an endless wire reads so. Check that the "
                 "far end was really opened for one reading and shorted for the other"
             )
+    seen: dict[float, int] = {}
+    for i, r in enumerate(readings, start=1):
+        j = seen.setdefault(round(r.freq_hz, 3), i)
+        if j != i:
+            raise ReadingError(
+                f"reading {i}: a second pair at {r.freq_hz / 1e6:g} MHz (reading {j} is there too): one wire has one "
+                "pair of impedances at a frequency; keep the better reading or average them"
+            )
 
 
 MAX_OPEN_SHORT = 24
@@ -151,6 +159,14 @@ stopped there by the range: the least-squares search (trust region, kept strictl
 a distance from a bound it presses against, far closer than any value's uncertainty."""
 
 
+MAX_CONDUCTIVITY_FACTOR = 10.0
+"""A fitted conductivity known only within x/÷ this (a decade either way) is not determined: P.372's and the
+handbooks' soil classes lie a factor of 3-10 apart (ITU-R P.527)."""
+MAX_RESIDUAL_RMS = 3.0
+"""A fit whose readings' misfit, in measurement uncertainties, is over this (rms) meets none of them: three standard
+uncertainties."""
+
+
 @record
 class GroundFit:
     """Fitted ground constants with standard uncertainties."""
@@ -168,8 +184,25 @@ class GroundFit:
 
     @property
     def usable(self) -> bool:
-        """Whether the fit is a ground to write into a scenario (no constant at an end of its range)."""
-        return not self.at_bound
+        """Whether the fit is a ground to write into a scenario: no constant at an end of its range, the conductivity
+        known within :data:`MAX_CONDUCTIVITY_FACTOR`, the readings met within :data:`MAX_RESIDUAL_RMS`."""
+        return not self.at_bound and not self.loose_text()
+
+    def loose_text(self) -> list[str]:
+        """Why a fit inside its ranges still fixes no ground: the conductivity not determined, or no soil that meets
+        the readings (empty when neither)."""
+        out = []
+        if not self.conductivity_factor <= MAX_CONDUCTIVITY_FACTOR:
+            out.append(
+                f"the readings do not determine the conductivity (x/÷ {self.conductivity_factor:.3g}, more than "
+                f"x/÷ {MAX_CONDUCTIVITY_FACTOR:g})"
+            )
+        if not self.residual_rms <= MAX_RESIDUAL_RMS:
+            out.append(
+                f"no soil meets the readings (residual rms {self.residual_rms:.3g} measurement uncertainties, over "
+                f"{MAX_RESIDUAL_RMS:g}): they disagree among themselves or with the wire's description"
+            )
+        return out
 
     def bound_text(self) -> list[str]:
         """Each constant at an end of its range, said in words (empty when none)."""
@@ -188,6 +221,8 @@ class GroundFit:
         """Why the fit is not a ground to use (empty when it is one)."""
         if self.usable:
             return ""
+        if not self.at_bound:
+            return "; ".join(self.loose_text()) + ": not a ground to use; check the readings and the wire's description"
         why = "; ".join(self.bound_text())
         if "permittivity low" in self.at_bound:
             hint = (
