@@ -289,6 +289,8 @@ def test_cli_verdicts_json_and_figure(tmp_path):
     [
         (["--a", "nothing here", "--b", "TX vertical"], "not in the scenario"),
         (["--a", "Beverage Europe"], "name both antennas"),
+        # every difference would be 0 dB, and --write would fit the site's level to it (a tester's run "agreed")
+        (["--a", "Beverage Europe", "--b", "Beverage Europe"], "--a and --b both name 'Beverage Europe'"),
     ],
 )
 def test_cli_bad_input(extra, message):
@@ -297,6 +299,14 @@ def test_cli_bad_input(extra, message):
     )
     assert out.exit_code == 2 and message in out.output
     assert "Traceback" not in out.output
+
+
+def test_cli_one_log_for_both_antennas_is_refused():
+    log = str(DATA / "a.txt")
+    out = CliRunner().invoke(
+        cli, ["verify", WREN, "--a", "Beverage Europe", "--b", "TX vertical", "--log-a", log, "--log-b", log]
+    )
+    assert out.exit_code == 2 and "--log-a and --log-b are the same file" in out.output
 
 
 @pytest.mark.parametrize("kind", ["log", "csv", "spots", "places"])

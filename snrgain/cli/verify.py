@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import click
 
 from snrgain.cli.options import (
@@ -144,6 +146,13 @@ def verify(
         raise click.UsageError("give --log-a and --log-b, or --spots")
     if spots is not None and (log_a is not None or log_b is not None):
         raise click.UsageError("--spots replaces --log-a and --log-b; give one or the other")
+    if antenna_a == antenna_b:  # every difference would be 0 dB: nothing to compare, nor to fit a level to
+        raise click.BadParameter(f"--a and --b both name {antenna_a!r}: compare two antennas", param_hint="--b")
+    if log_a is not None and log_b is not None and Path(log_a).resolve() == Path(log_b).resolve():
+        raise click.BadParameter(
+            f"--log-a and --log-b are the same file ({log_a}): each antenna's decodes come from its own receiver's log",
+            param_hint="--log-b",
+        )
     check_output(plot, overwrite=overwrite)
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     with progress(None, "verify: reading, pairing and predicting"):
