@@ -223,3 +223,15 @@ def test_a_layout_bearing_range_runs_clockwise_and_no_more_than_half_round():
         load(text.replace('bearing = ["30 deg", "60 deg"]', 'bearing = ["60 deg", "30 deg"]'))
     sc = load(text.replace('bearing = ["30 deg", "60 deg"]', 'bearing = ["330 deg", "30 deg"]'))
     assert sc.candidates
+
+
+def test_the_vertical_is_not_near_itself_under_another_reference():
+    # Under --reference the transmitting vertical is a candidate: it was warned of standing "within 0 m of the
+    # transmitting vertical".
+    c = '[[candidate]]\nname = "x"\nfamily = "vertical"\nheight = "6 m"\nposition = [30, 0]\n'
+    c += '[[candidate]]\nname = "y"\nfamily = "vertical"\nheight = "6 m"\nposition = [20, 0]\n'
+    text = BASE.format(extra_site='tx_clearance = "40 m"', candidates=c)
+    text = text.replace('height = "40 m"\n', 'height = "40 m"\nposition = [0, 0]\n', 1)  # the vertical on the plan
+    r = snrgain.evaluate(load(text, reference="x"))
+    near = {n.antenna for n in r.notices if n.code == "near-tx-vertical"}
+    assert "y" in near and "vertical" not in near  # the file's reference, the vertical, is a candidate here

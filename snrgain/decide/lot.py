@@ -219,8 +219,8 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
         tx = Point(*(ref.params.position or (0.0, 0.0)))
         clear = tx_clearance_m(site, sc.freq_hz)
         given = getattr(site, "tx_clearance_m", None) is not None
-        for ant, shape in mine:
-            if shape is not None and clearance_applies(sc, ant):
+        for ant, shape in mine:  # the vertical itself too is a candidate under another reference: not near itself
+            if shape is not None and ant.name != ref.name and clearance_applies(sc, ant):
                 d = float(shape.distance(tx))
                 if d < clear:
                     out.append(
