@@ -235,6 +235,11 @@ def test_an_output_named_like_an_input_is_refused_and_the_input_kept(tmp_path):
     assert CliRunner().invoke(cli, ["rank", str(src), "-o", str(tmp_path / "r.json")]).exit_code == 0
     res = CliRunner().invoke(cli, ["noise-readings", str(src), str(readings), "--write", "-"])
     assert res.exit_code == 2 and "a scenario copy is written to a file" in res.output
+    # calibrate's copy too (it was written into standard output, amid the JSON of --format json)
+    wire = tmp_path / "wire.toml"
+    wire.write_text(CliRunner().invoke(cli, ["calibrate", "--example"]).output, encoding="utf-8")
+    res = CliRunner().invoke(cli, ["calibrate", str(wire), "--scenario", str(src), "--write", "-"])
+    assert res.exit_code == 2 and "a scenario copy is written to a file" in res.output
 
 
 def test_an_output_path_ending_in_a_slash_names_a_folder(tmp_path):

@@ -9,6 +9,7 @@ import numpy as np
 
 from snrgain.cli.options import (
     FiniteRange,
+    check_output,
     emit_json,
     handle_errors,
     progress,
@@ -67,6 +68,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         return
     if into is not None and scenario is None:
         raise click.UsageError("--into goes with --scenario and --write")
+    check_output(write_to, overwrite=overwrite, replaces=scenario)  # before any work, as the other copies are
     sc_data = None
     if scenario is not None:
         from snrgain.scenario import read_source
