@@ -291,6 +291,8 @@ def test_cli_verdicts_json_and_figure(tmp_path):
         (["--a", "Beverage Europe"], "name both antennas"),
         # every difference would be 0 dB, and --write would fit the site's level to it (a tester's run "agreed")
         (["--a", "Beverage Europe", "--b", "Beverage Europe"], "--a and --b both name 'Beverage Europe'"),
+        # "reference" is the reference's other name (it said "candidate: needs at least 1 item(s)")
+        (["--a", "reference", "--b", "TX vertical"], "both name the reference ('TX vertical')"),
     ],
 )
 def test_cli_bad_input(extra, message):

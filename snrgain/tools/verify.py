@@ -318,6 +318,8 @@ def scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[flo
             raise ValueError(
                 f"antenna {n!r} is not in the scenario; its antennas are: {', '.join(sorted(str(k) for k in known))}"
             )
+    if {a, b} <= {ref_name, "reference"}:  # "reference" is the reference's other name
+        raise ValueError(f"--a {a!r} and --b {b!r} both name the reference ({ref_name!r}): compare two antennas")
     return d
 
 
