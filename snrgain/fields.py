@@ -333,6 +333,23 @@ def check_name(value):
     bad = next((c for c in value if ord(c) < 32 or 127 <= ord(c) < 160), None)
     if bad is not None:
         raise ValueError(f"a name without control characters; this one holds U+{ord(bad):04X}")
+    import unicodedata
+
+    # names that print alike are one name to the reader: "Bev" and "Bev " or "Bev<zero-width space>" were two rows
+    # of one look in the ranking, "Café" composed and decomposed two more
+    if value != value.strip():
+        raise ValueError(f"a name without spaces at its start or end; got {value!r}")
+    hidden = next((c for c in value if unicodedata.category(c) in ("Cf", "Zl", "Zp", "Co", "Cn")), None)
+    if hidden is not None:
+        raise ValueError(
+            f"a name without invisible or unassigned characters (zero-width, direction marks); this one holds "
+            f"U+{ord(hidden):04X}"
+        )
+    if unicodedata.normalize("NFC", value) != value:
+        raise ValueError(
+            "a name with its accented letters each written as one character (Unicode NFC); this one writes an accent "
+            "as a separate combining mark: retype it, or save the file in composed form"
+        )
     return value
 
 

@@ -531,6 +531,13 @@ def test_a_byte_order_mark_is_read_past_and_utf16_named(tmp_path):
         ("B" * 81, "a name of at most 80 characters; this one has 81"),
         ("   ", "a name needs a letter or a digit, not only spaces"),
         ("bell\x07", "a name without control characters; this one holds U+0007"),
+        # names that print alike were two rows of one look in the ranking (a hostile run's "Bev" and "Bev ", the
+        # same with a zero-width space, "Café" composed and decomposed); a direction override turned a keep-out's
+        # name round on the terminal
+        ("sense whip ", "a name without spaces at its start or end"),
+        ("sense\u200bwhip", "a name without invisible or unassigned characters"),
+        ("\u202ehouse", "this one holds U+202E"),
+        ("Cafe\u0301", "a name with its accented letters each written as one character (Unicode NFC)"),
     ],
 )
 def test_a_name_is_short_printable_text(name, message):
