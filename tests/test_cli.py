@@ -278,3 +278,19 @@ def test_dash_is_standard_output_and_a_figure_needs_its_suffix(tmp_path, monkeyp
     data = SCENARIOS.parent / "tests" / "data" / "layout-two-beverages.toml"
     res = CliRunner().invoke(cli, ["layout", str(data), "--plot", "plan.txt"])
     assert res.exit_code == 2 and "a figure is written to a file named .png or .svg" in res.output
+
+
+@pytest.mark.parametrize("command", ["calibrate", "locate"])
+def test_a_scenario_copy_of_an_invalid_scenario_is_refused_before_any_work(tmp_path, command):
+    # calibrate and locate wrote their copy of a scenario whose lot crosses itself; check then refused the copy
+    text = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    bad = tmp_path / "bad.toml"
+    lot = "lot = [[-40, -40], [210, -40], [210, 280], [-40, 280]]"
+    assert lot in text
+    bad.write_text(text.replace(lot, "lot = [[-40, -40], [210, 280], [210, -40], [-40, 280]]", 1))
+    readings = tmp_path / "r.toml"
+    readings.write_text(CliRunner().invoke(cli, [command, "--example"]).output, encoding="utf-8")
+    out = tmp_path / "copy.toml"
+    res = CliRunner().invoke(cli, [command, str(readings), "--scenario", str(bad), "--write", str(out)])
+    assert res.exit_code == 2 and "site: lot: the outline is not a simple polygon" in res.output
+    assert not out.exists()

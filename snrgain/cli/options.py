@@ -270,6 +270,17 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
         raise click.UsageError("give a READINGS file (see --example)")
     if (scenario is None) != (write_to is None):
         raise click.UsageError("--scenario and --write go together")
+    if scenario is not None:  # a copy of a scenario that does not load would not load either: said before any work
+        from snrgain.errors import ScenarioError
+        from snrgain.scenario import load
+        from snrgain.scenario.p372dir import NO_FOLDER_TEXT
+
+        try:
+            load(Path(scenario))
+        except ScenarioError as exc:  # but P.372's data, which this copy does not touch, may be fetched later
+            rest = [(p, m) for p, m in exc.problems if not m.startswith(NO_FOLDER_TEXT)]
+            if rest:
+                raise ScenarioError(exc.source, rest) from None
     return False
 
 

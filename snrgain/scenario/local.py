@@ -73,7 +73,7 @@ MIN_SOURCE_GAP_M = 1.0
 closer, its direction and field at the antenna are not defined."""
 
 
-def _antenna_outline(antenna, reference_m) -> list[np.ndarray]:
+def antenna_outline(antenna, reference_m) -> list[np.ndarray]:
     """Where an antenna stands on the plan: its points and, for a long wire, the segment of its wire [m]."""
     pos = getattr(antenna, "positions", None)
     if pos is not None and len(pos):
@@ -90,7 +90,7 @@ def _antenna_outline(antenna, reference_m) -> list[np.ndarray]:
     return [p]
 
 
-def _gap_m(point: np.ndarray, shape: np.ndarray) -> float:
+def gap_m(point: np.ndarray, shape: np.ndarray) -> float:
     """Distance on the plan from a point to a point or a segment (2 x 2) [m]."""
     if shape.ndim == 1:
         return float(np.hypot(*(point - shape)))
@@ -114,8 +114,8 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
             if ant.composite:
                 continue
             gaps = []
-            for shape in _antenna_outline(ant, ref_m):
-                gap = _gap_m(point, shape)
+            for shape in antenna_outline(ant, ref_m):
+                gap = gap_m(point, shape)
                 if shape.ndim == 2 and hasattr(ant, "wire_height_m"):  # along a wire: the distance in space
                     gap = float(np.hypot(gap, ant.wire_height_m() - src.height_m))
                 gaps.append(gap)

@@ -42,6 +42,11 @@ def check_p372_dir(chosen: tuple[Path, str], months) -> Path:
     return folder
 
 
+NO_FOLDER_TEXT = "P.372 atmospheric noise is asked for, but no data folder is set. "
+"""How the problem of a scenario asking for P.372 data with no folder named begins (a copy of such a scenario that
+changes nothing of its noise may still be written: snrgain.cli.options.readings_preamble)."""
+
+
 def find_p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
     """Resolve and check the P.372 data folder: --p372-dir, then the scenario key, then $SNRGAIN_P372_DIR
     (:func:`p372_dir_named`)."""
@@ -49,7 +54,5 @@ def find_p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
 
     chosen = p372_dir_named(option, model.noise.atmospheric.data_dir, base_dir)
     if chosen is None:
-        raise p372_maps.P372DataError(
-            "P.372 atmospheric noise is asked for, but no data folder is set. " + p372_maps.HOW_TO_GET
-        )
+        raise p372_maps.P372DataError(NO_FOLDER_TEXT + p372_maps.HOW_TO_GET)
     return check_p372_dir(chosen, model.time.months)

@@ -73,7 +73,7 @@ def clear_of_scatterers(transmitting: str | None, built, site) -> list[tuple[str
     lot; nothing is said without either) and from every structure's foot.  Problems as (path, message)."""
     import numpy as np
 
-    from snrgain.scenario.local import _antenna_outline, _gap_m
+    from snrgain.scenario.local import antenna_outline, gap_m
 
     feet = []
     names = [a.name for a in built.antennas]
@@ -104,7 +104,7 @@ def clear_of_scatterers(transmitting: str | None, built, site) -> list[tuple[str
             continue
         for what, foot in feet:
             point = np.asarray([float(v) for v in foot], dtype=float)
-            gap = min(_gap_m(point, shape) for shape in _antenna_outline(ant, (0.0, 0.0)))
+            gap = min(gap_m(point, shape) for shape in antenna_outline(ant, (0.0, 0.0)))
             if gap < MIN_TX_GAP_M:
                 key = "positions" if getattr(ant, "positions", None) is not None else "position"
                 out.append(
