@@ -294,3 +294,20 @@ def test_a_scenario_copy_of_an_invalid_scenario_is_refused_before_any_work(tmp_p
     res = CliRunner().invoke(cli, [command, str(readings), "--scenario", str(bad), "--write", str(out)])
     assert res.exit_code == 2 and "site: lot: the outline is not a simple polygon" in res.output
     assert not out.exists()
+
+
+@pytest.mark.parametrize(
+    "args, says",
+    [
+        (["rank", "--format", "csv", "-o", "r.json"], "the name ends in .json, a json file's, but --format is csv"),
+        (["rank", "--format", "table", "-o", "r.csv"], "the name ends in .csv, a csv file's, but --format is table"),
+        (["rank", "--format", "csv", "--build"], "the build sheet goes with --format table"),
+        (["report", "-o", "r.pdf"], "the report is one HTML page; name it .html"),
+    ],
+)
+def test_an_output_named_for_another_format_is_refused_before_any_work(tmp_path, args, says):
+    # rank wrote CSV into r.json, report HTML into r.pdf, and --build was dropped from a CSV without a word
+    args = [str(tmp_path / a) if a.startswith("r.") else a for a in args]
+    res = CliRunner().invoke(cli, [args[0], str(SCENARIOS / "wren-corner.toml"), *args[1:]])
+    assert res.exit_code == 2 and says in res.output, res.output
+    assert not any(tmp_path.iterdir())

@@ -314,6 +314,23 @@ def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
     click.echo(f"wrote {path}", err=True)
 
 
+def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: str = "--format") -> None:
+    """Refuse, before any work, an output file named for another format than the one written (``suffixes``: each
+    format's names; a name none of them claims is the user's choice): "-o r.json" with csv wrote CSV into it."""
+    if path is None or str(path) == "-":
+        return
+    suffix = Path(path).suffix.lower()
+    for other, names in suffixes.items():
+        if other != fmt and suffix in names and suffix not in suffixes.get(fmt, ()):
+            mine = suffixes.get(fmt) or ()
+            instead = f"name it {mine[0]}, or " if mine else ""
+            raise click.BadParameter(
+                f"{path}: the name ends in {suffix}, a {other} file's, but {option} is {fmt}; {instead}give "
+                f"{option} {other}",
+                param_hint="--output",
+            )
+
+
 def check_output(path, *, overwrite: bool, replaces=None) -> None:
     """Refuse, before any work, an output file that exists (without --overwrite), has no folder, is given for two
     outputs, or is one of the command's input files (its arguments, --scenario) but ``replaces``, the scenario a

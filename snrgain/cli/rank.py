@@ -8,6 +8,7 @@ from snrgain.cli.options import (
     allow_long_option,
     band_option,
     check_output,
+    check_suffix,
     handle_errors,
     nside_option,
     overwrite_option,
@@ -67,6 +68,13 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
     from snrgain.outputs import output as out
 
     check_output(output, overwrite=overwrite)
+    check_suffix(output, fmt, {"json": (".json",), "csv": (".csv",), "table": (".txt",)})
+    if build and fmt == "csv":
+        raise click.BadParameter(
+            "the build sheet goes with --format table (--format json holds the build values always); csv has rows "
+            "per target, antenna and hour only",
+            param_hint="--build",
+        )
     several = band is None and band_names(scenario)
     with progress(None, f"rank: evaluating {scenario}"):
         if several:

@@ -49,6 +49,8 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     from snrgain.outputs.drawing import Drawer
 
     check_output(output, overwrite=overwrite)
+    if output not in (None, "-") and Path(output).suffix.lower() not in (".html", ".htm"):
+        raise click.BadParameter(f"{output}: the report is one HTML page; name it .html", param_hint="--output")
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
     with Drawer("svg", modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
