@@ -49,7 +49,10 @@ def test_bad_vary_is_named(text, says):
 @pytest.mark.parametrize(
     "vary, says",
     [
-        ("nobody: length = 100 m, 200 m", "no candidate named 'nobody'"),
+        ("nobody: length = 100 m, 200 m", "no candidate named 'nobody'; the candidates are"),
+        # a near miss is named; a target is said to be one (it said "no candidate named 'Europe'")
+        ("Beverage toward Europa: length = 100 m", "(did you mean 'Beverage toward Europe'?)"),
+        ("Europe: bearing = 10, 20", "'Europe' is a target: a sweep varies the antennas"),
         ("Beverage toward Europe: lenght = 100 m, 200 m", "unknown key"),
         ("Beverage toward Europe: length = 1000 m to 5000 m by 4000 m", "5000 m"),
         ("site: ground = moist loam, marsh", "marsh"),
@@ -60,6 +63,7 @@ def test_bad_vary_is_exit_2(tmp_path, vary, says):
     res = CliRunner().invoke(cli, ["sweep", str(DEMO), "--vary", vary, "-o", str(out)])
     assert res.exit_code == 2, res.output
     assert vary in res.stderr and says in res.stderr
+    assert res.stderr.count(vary) == 1  # the argument said once (a key's check repeated it inside its own message)
     assert not out.exists()
 
 

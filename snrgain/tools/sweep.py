@@ -162,9 +162,20 @@ def _table(data: dict, vary: Vary) -> dict:
         if isinstance(cand, dict) and cand.get("name") == vary.table:
             return cand
     names = [c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)]
+    targets = [t.get("name") for t in data.get("target", []) if isinstance(t, dict)]
+    if vary.table in targets:
+        raise VaryError(
+            vary.text,
+            f"{vary.table!r} is a target: a sweep varies the antennas (a candidate's keys, the reference's) or a "
+            f"section ({', '.join(SECTIONS)}); the targets stay as the file gives them",
+        )
+    import difflib
+
+    near = difflib.get_close_matches(vary.table.lower(), [str(n).lower() for n in names], n=1, cutoff=0.4)
+    hint = f" (did you mean {names[[str(n).lower() for n in names].index(near[0])]!r}?)" if near else ""
     raise VaryError(
         vary.text,
-        f"no candidate named {vary.table!r}; the candidates are {names}, or vary "
+        f"no candidate named {vary.table!r}{hint}; the candidates are {names}, or vary "
         f"'reference' or a section ({', '.join(SECTIONS)})",
     )
 
@@ -297,6 +308,8 @@ def validate(study: Study) -> None:
             values[i] = value
             try:
                 study.load(apply(study.data, study.varies, values, study.band))
+            except VaryError:
+                raise
             except ScenarioError as exc:
                 _unvaried_fails(study, exc)
                 problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
