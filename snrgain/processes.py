@@ -28,9 +28,12 @@ def workers(count: int) -> int:
     limit = os.environ.get(ENV_WORKERS, "").strip()
     if limit:
         try:
-            cores = min(cores, max(1, int(limit)))
+            asked = int(limit)
         except ValueError:
-            raise ValueError(f"{ENV_WORKERS}={limit!r}: give a whole number of processes, 1 or more") from None
+            asked = 0
+        if asked < 1:  # 0 and -1 were taken as 1, "abc" refused: one rule for both
+            raise ValueError(f"{ENV_WORKERS}={limit!r}: give a whole number of processes, 1 or more")
+        cores = min(cores, asked)
     if "fork" not in multiprocessing.get_all_start_methods():
         return 1
     return max(1, min(cores, count))

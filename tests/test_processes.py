@@ -48,5 +48,9 @@ def test_workers_setting_is_checked(monkeypatch):
     monkeypatch.setenv(processes.ENV_WORKERS, "many")
     with pytest.raises(ValueError, match="SNRGAIN_WORKERS='many'"):
         processes.workers(4)
+    for bad in ("0", "-1"):  # taken as 1 while "many" was refused
+        monkeypatch.setenv(processes.ENV_WORKERS, bad)
+        with pytest.raises(ValueError, match="1 or more"):
+            processes.workers(4)
     monkeypatch.setenv(processes.ENV_WORKERS, "1")
     assert processes.workers(4) == 1
