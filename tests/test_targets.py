@@ -54,3 +54,12 @@ def test_bearing_target_samples_range():
     )
     assert np.degrees(t.elevation_rad[[0, -1]]) == pytest.approx([5, 25])
     assert np.all(np.diff(np.degrees(t.elevation_rad)) <= 1.0 + 1e-9)
+
+
+def test_a_target_at_the_antipode_has_no_bearing():
+    # Every great circle through the site meets at its antipode: a target there was given "bearing 0.0 deg"
+    # without a word.  One 500 km short of it keeps its great-circle bearing.
+    with pytest.raises(ValueError, match="about at the site's antipode"):
+        targets.from_place("far", site_lat_deg=44.2, site_lon_deg=-71.3, lat_deg=-44.2, lon_deg=108.7)
+    near = targets.from_place("near", site_lat_deg=44.2, site_lon_deg=-71.3, lat_deg=-40.0, lon_deg=108.7)
+    assert near.distance_m < targets.NEAR_ANTIPODE_M

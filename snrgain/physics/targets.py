@@ -96,6 +96,11 @@ def geodesic(lat1_deg, lon1_deg, lat2_deg, lon2_deg) -> tuple[float, float]:
     return float(np.mod(np.radians(az), 2 * np.pi)), float(dist)
 
 
+NEAR_ANTIPODE_M = 19_800e3
+"""A target farther than this [m] lies near the site's antipode (half the earth's meridian, about 20,004 km, less
+200 km): its great-circle bearing is not defined there, and signals arrive by every path."""
+
+
 def from_place(
     name: str,
     *,
@@ -110,6 +115,11 @@ def from_place(
     bearing, dist = geodesic(site_lat_deg, site_lon_deg, lat_deg, lon_deg)
     if dist < 1e3:
         raise ValueError(f"target {name!r} lies within 1 km of the site; give it by bearing and elevation instead")
+    if dist > NEAR_ANTIPODE_M:  # the great circles through the site all meet there: its bearing is not defined
+        raise ValueError(
+            f"target {name!r} lies {dist / 1e3:,.0f} km away, about at the site's antipode (within 200 km of it), "
+            "where every bearing leads; give it by the bearing you hear it from and elevation"
+        )
     n_min = fewest_hops(dist, layer_height_m=layer_height_m, min_elevation_rad=min_elevation_rad)
     hops = (n_min, n_min + 1)
     lo, hi = (float(hop_elevation_rad(dist, n, layer_height_m=layer_height_m)) for n in hops)
