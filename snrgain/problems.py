@@ -203,6 +203,23 @@ def _path(steps, data, prefix: str) -> str:
     return ".".join(parts)
 
 
+def _near_key(key: str) -> str | None:
+    """The key of any of the project's input tables closest to a misspelt ``key`` ("lenght" -> "length"), or None
+    (difflib's ratio at least 0.8: one letter swapped or missing in a word of five or more)."""
+    import difflib
+
+    from snrgain.fields import StrictModel
+
+    names, todo = set(), [StrictModel]
+    while todo:
+        cls = todo.pop()
+        todo.extend(cls.__subclasses__())
+        names.update(getattr(cls, "model_fields", {}))
+    names.discard(key)
+    got = difflib.get_close_matches(key, sorted(names), n=1, cutoff=0.8)
+    return got[0] if got else None
+
+
 def _message(err: dict) -> str:
     typ = err.get("type", "")
     ctx = err.get("ctx", {}) or {}
@@ -210,7 +227,9 @@ def _message(err: dict) -> str:
     if typ == "union_kinds":
         return f"expected {' or '.join(err['kinds']) or 'another kind of value'}{got}"
     if typ == "extra_forbidden":
-        return "unknown key (check its spelling)"
+        loc = err.get("loc") or ()
+        near = _near_key(str(loc[-1])) if loc else None
+        return f"unknown key (did you mean {near!r}?)" if near else "unknown key (check its spelling)"
     if typ == "missing":
         return "required key is missing"
     if typ in ("value_error", "assertion_error"):
