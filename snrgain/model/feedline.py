@@ -124,7 +124,8 @@ def antenna_end(antenna, freq_hz: float, ground) -> tuple[phys.End, str, bool]:
     kind = end_kind(antenna)
     if kind == "rod":
         rod, loop, load = antenna_loads(antenna, f)
-        return phys.grounded_end(rod_ohm=rod, loop_ohm=loop, load_ohm=load), f"its feed ground rod ({rod:g} ohm)", False
+        end = phys.grounded_end(rod_ohm=rod, loop_ohm=loop, load_ohm=load)
+        return end, f"its feed ground rod ({rod:.3g} ohm)", False
     if kind == "phasing unit":
         end = phys.grounded_end(rod_ohm=PHASING_UNIT_GROUND_OHM, loop_ohm=2 * ARRAY_PORT_OHM, load_ohm=ARRAY_PORT_OHM)
         return (

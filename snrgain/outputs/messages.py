@@ -137,8 +137,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "quieting the source gains more than a sharper pattern"
         )
     if n.code == "feed-line-cost":
+        about = float(f"{v['choke_ohm']:.2g}")  # a choke's impedance is known to a few per cent at best
         choke = (
-            f"a common-mode choke of about {v['choke_ohm']:.0f} ohm at the antenna puts it {v['quiet_below_db']:g} dB "
+            f"a common-mode choke of about {about:g} ohm at the antenna puts it {v['quiet_below_db']:g} dB "
             "below the antenna's own pickup"
             if v["choke_ohm"] > 0
             else "it is already 20 dB below the antenna's own pickup at its worst hour"
