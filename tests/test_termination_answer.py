@@ -241,3 +241,19 @@ def test_a_resistor_that_trades_the_rear_null_for_little_snr_is_said():
         assert 10 * np.log10(g[0] / g[1]) == pytest.approx(v[key], abs=0.05)
     text = notice_text(next(n for n in r.notices if n.code == "termination-fragile"))
     assert "beats |Z0| less the far ground" in text and "the matched resistor is the safer build" in text
+
+
+@pytest.mark.parametrize(
+    "over_db, given_up_db, said",
+    [
+        (0.09, 4.0, True),  # a tester's BOG: 998 ohm for 0.09 dB over 325 ohm, 4 dB of front-to-back given up
+        (0.35, 4.5, True),  # their Beverage: 1129 ohm for 0.35 dB, 4.5 dB given up
+        (0.5, 4.0, False),  # 4 dB for half a dB: under 10 dB per dB gained
+        (0.09, 2.5, False),  # under the 3 dB floor
+        (1.2, 15.0, False),  # over 1 dB gained: worth it as modelled
+    ],
+)
+def test_a_fragile_resistor_weighs_what_it_gains(over_db, given_up_db, said):
+    from snrgain.decide.decisions import trades_front_to_back
+
+    assert trades_front_to_back(over_db, given_up_db) is said

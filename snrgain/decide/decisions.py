@@ -121,15 +121,26 @@ def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[
 FRAGILE_OVER_DB = 1.0
 """A resistor chosen for SNR under the site's noise that beats |Z0| by less than this [dB] ..."""
 FRAGILE_FRONT_TO_BACK_DB = 10.0
-"""... while giving up this much front-to-back against |Z0| [dB] is said to rest on the noise as modelled (snrgain's
-thresholds: a tenth of the front-to-back's power traded for under 1 dB)."""
+"""... while giving up this much front-to-back against |Z0| per dB it gains, and at least
+FRAGILE_FRONT_TO_BACK_FLOOR_DB, is said to rest on the noise as modelled (snrgain's thresholds: a tenth of the
+front-to-back's power traded for 1 dB; a tester's BOG took 998 ohm for 0.09 dB over 325 ohm, giving up 4.4 dB)."""
+FRAGILE_FRONT_TO_BACK_FLOOR_DB = 3.0
+
+
+def trades_front_to_back(over_matched_db: float, given_up_db: float) -> bool:
+    """Whether a resistor that beats |Z0| by ``over_matched_db`` of SNR gain while giving up ``given_up_db`` of
+    front-to-back against it trades too much of the rear null for what it adds (the thresholds above)."""
+    return over_matched_db < FRAGILE_OVER_DB and given_up_db >= max(
+        FRAGILE_FRONT_TO_BACK_FLOOR_DB, FRAGILE_FRONT_TO_BACK_DB * over_matched_db
+    )
 
 
 def fragile_termination_notices(sc: Scenario) -> list[Notice]:
     """``termination-fragile`` (termination_ohm, matched_ohm, over_matched_db, front_to_back_db,
     front_to_back_matched_db) for each candidate whose resistor, chosen for SNR gain under the site's noise
     (termination = "auto", auto_for = "snr"), beats |Z0| by less than FRAGILE_OVER_DB while its front-to-back toward
-    the bearing lies FRAGILE_FRONT_TO_BACK_DB or more below |Z0|'s: a null placed on the noise as modelled (a
+    the bearing lies FRAGILE_FRONT_TO_BACK_DB per dB gained (at least FRAGILE_FRONT_TO_BACK_FLOOR_DB) below |Z0|'s:
+    a null placed on the noise as modelled (a
     source's bearing and level, the storms' directions), which a real site may not hold to."""
     from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
     from snrgain.tools.wiredesign import termination_answer
@@ -145,7 +156,7 @@ def fragile_termination_notices(sc: Scenario) -> list[Notice]:
         elevation = getattr(ant.params, "auto_elevation", AUTO_ELEVATION_RAD)
         fb = termination_figure(ant.termination_pattern(sc.freq_hz), bearing, elevation, "front_to_back")
         at_best, at_matched = (float(10 * np.log10(max(fb(r), 1e-30))) for r in (ans.best_ohm, ans.matched_ohm))
-        if at_matched - at_best >= FRAGILE_FRONT_TO_BACK_DB:
+        if trades_front_to_back(ans.over_matched_db, at_matched - at_best):
             out.append(
                 Notice(
                     "termination-fragile",
