@@ -311,3 +311,32 @@ def test_an_output_named_for_another_format_is_refused_before_any_work(tmp_path,
     res = CliRunner().invoke(cli, [args[0], str(SCENARIOS / "wren-corner.toml"), *args[1:]])
     assert res.exit_code == 2 and says in res.output, res.output
     assert not any(tmp_path.iterdir())
+
+
+def test_an_output_named_json_or_csv_takes_that_format_when_none_is_given(tmp_path):
+    import json
+
+    out = tmp_path / "r.json"
+    res = CliRunner().invoke(cli, ["rank", str(SCENARIOS / "wren-corner.toml"), "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    assert "targets" in json.loads(out.read_text(encoding="utf-8"))  # it was the table, written into r.json
+    out = tmp_path / "r.csv"
+    assert CliRunner().invoke(cli, ["rank", str(SCENARIOS / "wren-corner.toml"), "-o", str(out)]).exit_code == 0
+    assert out.read_text(encoding="utf-8").startswith("target,")
+
+
+def test_a_scenario_copy_in_another_folder_finds_the_scenarios_files(tmp_path):
+    # The demo names its pattern table by a path from its own folder: a copy written elsewhere could not find it
+    # (the next run of the copy stopped on "cannot read the pattern file").  The copy names it from its own folder.
+    from snrgain.scenario import load
+
+    wire = tmp_path / "wire.toml"
+    wire.write_text(CliRunner().invoke(cli, ["calibrate", "--example"]).output, encoding="utf-8")
+    out = tmp_path / "copy.toml"
+    res = CliRunner().invoke(
+        cli, ["calibrate", str(wire), "--scenario", str(SCENARIOS / "alder-hollow.toml"), "--write", str(out)]
+    )
+    assert res.exit_code == 0, res.output
+    assert "the copy names 'patterns/cardioid-pair.csv' from its own folder" in res.output
+    sc = load(out)
+    assert any(a.family == "tabulated" for a in sc.candidates)

@@ -345,7 +345,7 @@ def test_locate_writes_a_name_with_quotes_as_toml_and_replaces_it_next_time(tmp_
     readings.write_text(locate.EXAMPLE, encoding="utf-8")
     out = tmp_path / "out.toml"
     name = 'the "barn" light \\ east'
-    src = DEMO
+    src = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # no files beside it: its copy loads anywhere
     for _ in range(2):
         res = CliRunner().invoke(
             cli, ["locate", str(readings), "--scenario", str(src), "--write", str(out), "--overwrite", "--name", name]

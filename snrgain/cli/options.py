@@ -310,16 +310,68 @@ def write_output(path, content, *, overwrite: bool, replaces=None) -> None:
         return
     from snrgain.files import write_atomic
 
+    moved = []
+    if replaces is not None:
+        content, moved = rebased_paths(content, replaces, path)
     write_atomic(path, content, overwrite=overwrite, replaces=replaces)
     click.echo(f"wrote {path}", err=True)
+    for old, new in moved:
+        click.echo(f"  (the copy names {old!r} from its own folder: {new!r})", err=True)
 
 
-def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: str = "--format") -> None:
-    """Refuse, before any work, an output file named for another format than the one written (``suffixes``: each
-    format's names; a name none of them claims is the user's choice): "-o r.json" with csv wrote CSV into it."""
+PATH_KEYS = ("file", "data_dir")
+"""A scenario's keys that name a file or folder, relative to the scenario's own folder when not absolute."""
+
+
+def rebased_paths(text: str, scenario, path) -> tuple[str, list[tuple[str, str]]]:
+    """A scenario copy's text for a file in another folder than ``scenario``: each path the scenario names relative
+    to its own folder (a pattern table's ``file``, P.372's ``data_dir``) written relative to the copy's folder, so the
+    copy finds what the scenario finds; and the (old, new) paths.  The text as it is in the same folder."""
+    import os
+    import tomllib
+
+    from snrgain.tools.tomltext import toml_string
+
+    here, there = Path(scenario).resolve().parent, Path(path).resolve().parent
+    if here == there:
+        return text, []
+
+    def walk(node):
+        if isinstance(node, dict):
+            for k, v in node.items():
+                if k in PATH_KEYS and isinstance(v, str) and not os.path.isabs(os.path.expanduser(v)):
+                    yield v
+                else:
+                    yield from walk(v)
+        elif isinstance(node, list):
+            for v in node:
+                yield from walk(v)
+
+    moved = []
+    for old in dict.fromkeys(walk(tomllib.loads(text))):
+        new = os.path.relpath(here / old, there)
+        for quoted in (toml_string(old), f"'{old}'"):
+            text = text.replace(quoted, toml_string(new))
+        moved.append((old, new))
+    return text, moved
+
+
+def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: str = "--format") -> str:
+    """The format to write: the one ``option`` gives, or, where it was left to its default, the one the output's name
+    says (``suffixes``: each format's names; "-o r.json" writes JSON); refused before any work when the two are given
+    and disagree ("--format csv -o r.json" wrote CSV into it).  A name no format claims is the user's choice."""
     if path is None or str(path) == "-":
-        return
+        return fmt
     suffix = Path(path).suffix.lower()
+    ctx = click.get_current_context(silent=True)
+    name = option.lstrip("-").replace("-", "_")
+    left = ctx is not None and ctx.get_parameter_source("fmt" if name == "format" else name) in (
+        click.core.ParameterSource.DEFAULT,
+        None,
+    )
+    said = next((f for f, names in suffixes.items() if suffix in names), None)
+    if left and said is not None:
+        return said
     for other, names in suffixes.items():
         if other != fmt and suffix in names and suffix not in suffixes.get(fmt, ()):
             mine = suffixes.get(fmt) or ()
@@ -329,6 +381,7 @@ def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: s
                 f"{option} {other}",
                 param_hint="--output",
             )
+    return fmt
 
 
 def check_output(path, *, overwrite: bool, replaces=None) -> None:

@@ -68,7 +68,7 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
     from snrgain.outputs import output as out
 
     check_output(output, overwrite=overwrite)
-    check_suffix(output, fmt, {"json": (".json",), "csv": (".csv",), "table": (".txt",)})
+    fmt = check_suffix(output, fmt, {"json": (".json",), "csv": (".csv",), "table": (".txt",)})
     if build and fmt == "csv":
         raise click.BadParameter(
             "the build sheet goes with --format table (--format json holds the build values always); csv has rows "
