@@ -319,6 +319,7 @@ def test_the_site_plan_draws_a_switched_array_once_and_a_reversible_wire_both_wa
         {**FOUR_SQUARE, "directions": [f"{b} deg" for b in BEARINGS]}, {**bev, "directions": ["45 deg", "225 deg"]}
     )
     data["site"]["lot"] = [[-100, -100], [100, -100], [100, 100], [-100, 100]]
+    data["reference"]["position"] = [-60, 60]  # not at the origin, where the lot would stand it: on an element
     plan = plan_of(load(data))
     fours = [a for a in plan["antennas"] if a["name"].startswith("four-square")]
     assert len(fours) == 4 and [bool(a["parts"]) for a in fours] == [True, False, False, False]

@@ -134,7 +134,12 @@ def _after_antennas(model: ScenarioModel, built: Built, file_reference, length_u
         if problems:
             return None, {}, problems
     transmitting, problems = transmitting_vertical(model.site.transmitting, built, file_reference)
-    problems = problems or clear_of_scatterers(transmitting, built, model.site)
+    given = {
+        t.get("name", "reference")
+        for t in [*(model.candidate or []), model.reference or {}]
+        if isinstance(t, dict) and ("position" in t or "positions" in t)
+    }
+    problems = problems or clear_of_scatterers(transmitting, built, model.site, given)
     if problems or not built.feed_lines:
         return transmitting, {}, problems
     where_ref = built.antennas[0].params.position or (0.0, 0.0)

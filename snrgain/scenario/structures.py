@@ -67,10 +67,13 @@ point, wire or element [m]: closer, the two stand in one place (a wire through t
 and the re-radiation's coupling is not defined (it read a Beverage 56 dB louder than the vertical itself)."""
 
 
-def clear_of_scatterers(transmitting: str | None, built, site) -> list[tuple[str, str]]:
-    """Every receiving antenna stands at least :data:`MIN_TX_GAP_M` on the plan from the transmitting vertical's base
-    (where :func:`snrgain.model.scatter.tx_antenna` stands it: its position, or the plan's origin when the site has a
-    lot; nothing is said without either) and from every structure's foot.  Problems as (path, message)."""
+def clear_of_scatterers(transmitting: str | None, built, site, placed_by_user=None) -> list[tuple[str, str]]:
+    """Every receiving antenna the file places (``placed_by_user``: the names, a switched antenna's group among them,
+    of the tables that give a ``position`` or ``positions``; None: every antenna with one) stands at least
+    :data:`MIN_TX_GAP_M` on the plan from the transmitting vertical's base (where
+    :func:`snrgain.model.scatter.tx_antenna` stands it: its position, or the plan's origin when the site has a lot;
+    nothing is said without either) and from every structure's foot; one without a position stands at the
+    reference's place by design.  Problems as (path, message)."""
     import numpy as np
 
     from snrgain.scenario.local import antenna_outline, gap_m
@@ -100,6 +103,9 @@ def clear_of_scatterers(transmitting: str | None, built, site) -> list[tuple[str
     feet += [(f"the structure {st.name!r}", st.position) for st in structures]
     for ant, where in zip(built.antennas, built.wheres):
         placed = ant.params.position is not None or getattr(ant, "positions", None) is not None
+        group = getattr(getattr(ant, "switched", None), "group", None)
+        if placed_by_user is not None and ant.name not in placed_by_user and group not in placed_by_user:
+            placed = False
         if ant.composite or ant.name == transmitting or not placed:
             continue
         for what, foot in feet:
