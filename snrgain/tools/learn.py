@@ -203,12 +203,15 @@ def write_ground(text: str, ground: str, note: str) -> str:
 
 def move_lines(rows: list[dict], reference: str = "the reference") -> list[str]:
     out = [f"predicted SNR gain over {reference}, before -> after:"]
+    # each column as wide as its longest name (they were cut at 26 and 16: "Beverage JA/VK SSE (150 de")
+    wa = max((len(r["antenna"]) for r in rows), default=0)
+    wt = max((len(r["target"]) for r in rows), default=0)
     for r in rows:
         split = ""
         if "moved_by_ground_db" in r:
             split = f"; offset {r['moved_by_offset_db']:+.1f}, ground {r['moved_by_ground_db']:+.1f}"
         out.append(
-            f"  {r['antenna'][:26]:<26} {r['target'][:16]:<16} {r['before_db']:+6.1f} -> {r['after_db']:+6.1f} dB "
+            f"  {r['antenna']:<{wa}} {r['target']:<{wt}} {r['before_db']:+6.1f} -> {r['after_db']:+6.1f} dB "
             f"({r['moved_db']:+.1f}{split})"
         )
     return out
@@ -475,9 +478,10 @@ def fit_lines(f: OffsetFit) -> list[str]:
     ]
     if f.ground is not None:
         out.append(f"  ground {f.ground_before} -> {f.ground} (the class whose best offset fits best)")
+    wt = max((len(g["target"]) for g in f.groups), default=0)
     for g in f.groups:
         out.append(
-            f"  {g['target'][:18]:<18} {g['utc_hour']:02d} UTC  measured {g['measured_median_db']:+5.1f}  predicted "
+            f"  {g['target']:<{wt}} {g['utc_hour']:02d} UTC  measured {g['measured_median_db']:+5.1f}  predicted "
             f"{g['predicted_before_db']:+5.1f} -> {g['predicted_after_db']:+5.1f} dB"
         )
     out += [f"  note: {n}" for n in f.notes]
