@@ -309,9 +309,12 @@ def lengths(value, n: int, *, what: str, example: str, limit_m: float) -> tuple[
     return tuple(out)
 
 
-def _point(value):
-    """A point on the site plan: [east, north]."""
+def plan_point(value):
+    """A point on the site plan as a scenario writes it, [east, north] (bare numbers are metres), in metres."""
     return lengths(value, 2, what="a point [east, north]", example='["12 m", "-30 ft"] or [12, -9.1]', limit_m=10_000)
+
+
+_point = plan_point
 
 
 PlanPoint = Annotated[tuple[float, float], BeforeValidator(_point)]
@@ -339,16 +342,28 @@ def check_name(value):
     # of one look in the ranking, "Café" composed and decomposed two more
     if value != value.strip():
         raise ValueError(f"a name without spaces at its start or end; got {value!r}")
-    hidden = next((c for c in value if unicodedata.category(c) in ("Cf", "Zl", "Zp", "Co", "Cn")), None)
+    # the joiners (U+200C, U+200D) belong to some scripts' words and to emoji sequences: between two visible
+    # characters they are part of the name; every other format character (zero-width space, direction marks and
+    # overrides) is invisible text
+    hidden = next(
+        (
+            c
+            for i, c in enumerate(value)
+            if unicodedata.category(c) in ("Cf", "Zl", "Zp", "Co")
+            and not (c in "\u200c\u200d" and 0 < i < len(value) - 1 and not value[i + 1].isspace())
+        ),
+        None,
+    )
     if hidden is not None:
         raise ValueError(
-            f"a name without invisible or unassigned characters (zero-width, direction marks); this one holds "
+            f"a name without invisible characters (zero-width spaces, direction marks); this one holds "
             f"U+{ord(hidden):04X}"
         )
-    if unicodedata.normalize("NFC", value) != value:
+    composed = unicodedata.normalize("NFC", value)
+    if composed != value:
         raise ValueError(
-            "a name with its accented letters each written as one character (Unicode NFC); this one writes an accent "
-            "as a separate combining mark: retype it, or save the file in composed form"
+            f"a name in Unicode's composed form (NFC), which prints the same: write it as {composed!r} (an accent "
+            "typed as a separate mark, or a compatibility character, makes another name of one look)"
         )
     return value
 

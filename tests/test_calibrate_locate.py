@@ -429,6 +429,7 @@ def test_an_ambiguous_bearing_is_written_on_the_side_of_the_source_it_replaces()
     assert bearing('bearing = "280 deg"') == pytest.approx(280.0)
     assert bearing("bearing = 130") == pytest.approx(100.0)
     assert bearing('position = ["-40 m", "0 m"]', at=np.array([0.0, 10.0])) == pytest.approx(280.0)
+    assert bearing("position = [-40, 0]", at=np.array([0.0, 10.0])) == pytest.approx(280.0)  # bare numbers: metres
     assert bearing('position = ["-40 m", "0 m"]') == pytest.approx(100.0)  # no reading point: no side
     assert bearing("bearing = 280", name="another") == pytest.approx(100.0)
     sure = replace(base, sources=[loc.FittedSource(100.0, 5.0, 10.0, 80.0, False)])

@@ -525,6 +525,21 @@ def test_a_byte_order_mark_is_read_past_and_utf16_named(tmp_path):
         logs.read_text(log)
 
 
+def test_names_of_every_script_pass():
+    # the joiners inside a word or an emoji sequence, emoji newer than the interpreter's tables, CJK, apostrophes
+    from snrgain.fields import check_name
+
+    for name in (
+        "\U0001f468\u200d\U0001f469\u200d\U0001f467 flag",
+        "\u0645\u06cc\u200c\u062e\u0648\u0627\u0647\u0645",
+        "\U0001fae8 loop",
+        "\u65e5\u672c",
+        "Tom's \u2019wire\u2019",
+        "Caf\u00e9",
+    ):
+        assert check_name(name) == name
+
+
 @pytest.mark.parametrize(
     "name, message",
     [
@@ -535,9 +550,10 @@ def test_a_byte_order_mark_is_read_past_and_utf16_named(tmp_path):
         # same with a zero-width space, "Café" composed and decomposed); a direction override turned a keep-out's
         # name round on the terminal
         ("sense whip ", "a name without spaces at its start or end"),
-        ("sense\u200bwhip", "a name without invisible or unassigned characters"),
+        ("sense\u200bwhip", "a name without invisible characters"),
         ("\u202ehouse", "this one holds U+202E"),
-        ("Cafe\u0301", "a name with its accented letters each written as one character (Unicode NFC)"),
+        ("Cafe\u0301", "a name in Unicode's composed form (NFC), which prints the same: write it as 'Café'"),
+        ("\u212bngstr\u00f6m", "write it as 'Ångström'"),
     ],
 )
 def test_a_name_is_short_printable_text(name, message):

@@ -235,3 +235,23 @@ def test_the_vertical_is_not_near_itself_under_another_reference():
     r = snrgain.evaluate(load(text, reference="x"))
     near = {n.antenna for n in r.notices if n.code == "near-tx-vertical"}
     assert "y" in near and "vertical" not in near  # the file's reference, the vertical, is a candidate here
+
+
+def test_a_placed_source_keeps_its_distance_from_a_structure_and_an_array_placed_by_its_elements_from_the_vertical():
+    # A source 1 cm from a tower's foot read at +8.7 dBm on a whip (the tower's currents in the source's field without
+    # bound); an array placed by its elements' positions stood 0.3 m from the vertical unchecked.
+    site = 'structures = [{ name = "tower", position = [40, 40], height = "18 m" }]'
+    text = BASE.format(extra_site=site, candidates="").replace("position = [75, 70]", "position = [40, 40.3]")
+    with pytest.raises(ScenarioError, match=r"the source stands 0.30 m from the structure 'tower'"):
+        load(text)
+    arr = (
+        '[[candidate]]\nname = "arr"\nfamily = "array"\n'
+        'elements = [{ family = "vertical", height = "6 m", position = [0.3, 0] }, '
+        '{ family = "vertical", height = "6 m", position = [0.3, 20] }]\n'
+    )
+    with pytest.raises(ScenarioError) as err:
+        load(BASE.format(extra_site="", candidates=arr))
+    assert any(
+        p == 'candidate 2 ("arr").elements' and "0.30 m from the transmitting vertical" in m
+        for p, m in err.value.problems
+    )

@@ -275,12 +275,13 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
         from snrgain.scenario import load
         from snrgain.scenario.p372dir import NO_FOLDER_TEXT
 
-        try:
-            load(Path(scenario))
-        except ScenarioError as exc:  # but P.372's data, which this copy does not touch, may be fetched later
-            rest = [(p, m) for p, m in exc.problems if not m.startswith(NO_FOLDER_TEXT)]
-            if rest:
-                raise ScenarioError(exc.source, rest) from None
+        for band in band_names(scenario) or [None]:  # a scenario of several bands: each band loads
+            try:
+                load(Path(scenario), band=band)
+            except ScenarioError as exc:  # but P.372's data, which this copy does not touch, may be fetched later
+                rest = [(p, m) for p, m in exc.problems if not m.startswith(NO_FOLDER_TEXT)]
+                if rest:
+                    raise ScenarioError(exc.source, rest) from None
     return False
 
 
@@ -325,35 +326,30 @@ PATH_KEYS = ("file", "data_dir")
 
 def rebased_paths(text: str, scenario, path) -> tuple[str, list[tuple[str, str]]]:
     """A scenario copy's text for a file in another folder than ``scenario``: each path the scenario names relative
-    to its own folder (a pattern table's ``file``, P.372's ``data_dir``) written relative to the copy's folder, so the
-    copy finds what the scenario finds; and the (old, new) paths.  The text as it is in the same folder."""
+    to its own folder (a pattern table's ``file``, P.372's ``data_dir``, written as a plain quoted string) written
+    relative to the copy's folder, in one pass over those keys alone, so the copy finds what the scenario finds; and
+    the (old, new) paths changed.  The text as it is in the same folder."""
     import os
-    import tomllib
+    import re
 
     from snrgain.tools.tomltext import toml_string
 
     here, there = Path(scenario).resolve().parent, Path(path).resolve().parent
     if here == there:
         return text, []
+    moved: dict[str, str] = {}
+    keys = "|".join(PATH_KEYS)
 
-    def walk(node):
-        if isinstance(node, dict):
-            for k, v in node.items():
-                if k in PATH_KEYS and isinstance(v, str) and not os.path.isabs(os.path.expanduser(v)):
-                    yield v
-                else:
-                    yield from walk(v)
-        elif isinstance(node, list):
-            for v in node:
-                yield from walk(v)
+    def rebase(m):
+        old = m.group(3) if m.group(3) is not None else m.group(4)
+        if os.path.isabs(os.path.expanduser(old)):
+            return m.group(0)
+        new = moved.setdefault(old, os.path.relpath(here / old, there))
+        return m.group(1) + toml_string(new)
 
-    moved = []
-    for old in dict.fromkeys(walk(tomllib.loads(text))):
-        new = os.path.relpath(here / old, there)
-        for quoted in (toml_string(old), f"'{old}'"):
-            text = text.replace(quoted, toml_string(new))
-        moved.append((old, new))
-    return text, moved
+    pattern = rf"""((?<![\w-])(?:{keys})\s*=\s*)("([^"\\\n]*)"|'([^'\n]*)')"""
+    text = re.sub(pattern, rebase, text)
+    return text, list(moved.items())
 
 
 def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: str = "--format") -> str:
@@ -365,9 +361,8 @@ def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: s
     suffix = Path(path).suffix.lower()
     ctx = click.get_current_context(silent=True)
     name = option.lstrip("-").replace("-", "_")
-    left = ctx is not None and ctx.get_parameter_source("fmt" if name == "format" else name) in (
-        click.core.ParameterSource.DEFAULT,
-        None,
+    left = ctx is not None and (
+        ctx.get_parameter_source("fmt" if name == "format" else name) == click.core.ParameterSource.DEFAULT
     )
     said = next((f for f, names in suffixes.items() if suffix in names), None)
     if left and said is not None:

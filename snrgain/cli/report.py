@@ -49,7 +49,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     from snrgain.outputs.drawing import Drawer
 
     check_output(output, overwrite=overwrite)
-    if output not in (None, "-") and Path(output).suffix.lower() not in (".html", ".htm"):
+    if output not in (None, "-") and Path(output).suffix.lower() not in (".html", ".htm", ""):
         raise click.BadParameter(f"{output}: the report is one HTML page; name it .html", param_hint="--output")
     # The figures' process starts now and readies matplotlib while this one evaluates (snrgain.outputs.drawing).
     with Drawer("svg", modules=_RESULT_MODULES, keep=True) as drawer:
@@ -319,23 +319,31 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
 
 
 def target_file_tags(names: list[str]) -> list[str]:
-    """Each target's part of a figure's file name: its name in lower-case letters, digits and hyphens
-    ("South America" -> "south-america"), else (a name with none of those, or one two targets share) "target" and
-    its number in the file.
+    """Each target's part of a figure's file name: its name in lower-case letters, digits and hyphens, accents taken
+    off ("South America" -> "south-america", "Nordamérika" -> "nordamerika"), else (a name with none of those, or one
+    another target's gives too) "target" and its number in the file, never one another target's tag is.
 
-    >>> target_file_tags(["Europe", "South America", "Japan (long path)", "Nordamerika", "Europe!"])
+    >>> target_file_tags(["Europe", "South America", "Japan (long path)", "Nordamérika", "Europe!"])
     ['europe', 'south-america', 'japan-long-path', 'nordamerika', 'target5']
-    >>> target_file_tags(["日本"])
-    ['target1']
+    >>> target_file_tags(["target3", "Europe", "日本"])
+    ['target3', 'europe', 'target3-2']
     """
     import re
+    import unicodedata
 
-    slugs = [re.sub(r"[^a-z0-9]+", "-", n.lower().encode("ascii", "ignore").decode()).strip("-")[:40] for n in names]
-    taken = set()
+    def slug(name: str) -> str:
+        ascii_ = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode()
+        return re.sub(r"[^a-z0-9]+", "-", ascii_.lower()).strip("-")[:40]
+
+    slugs = [slug(n) for n in names]
+    taken: set[str] = set()
     out = []
-    for i, slug in enumerate(slugs):
-        if not slug or slug in taken or slugs.count(slug) > 1 and slugs.index(slug) != i:
-            slug = f"target{i + 1}"
-        taken.add(slug)
-        out.append(slug)
+    for i, tag in enumerate(slugs):
+        if not tag or tag in taken or slugs.count(tag) > 1 and slugs.index(tag) != i:
+            tag = f"target{i + 1}"
+        base, k = tag, 2
+        while tag in taken or (tag != slugs[i] and tag in slugs):  # a number's tag another target has as its name
+            tag, k = f"{base}-{k}", k + 1
+        taken.add(tag)
+        out.append(tag)
     return out

@@ -723,8 +723,15 @@ def vertical_response(tx: TxVertical, freq_hz: float, az, el) -> np.ndarray:
     """The vertical's own e_v on a set of directions, kept for the next antenna asking on the same directions (a
     ranking asks on the same sky grid for every candidate and every resistor tried)."""
     az, el = np.ascontiguousarray(az, dtype=float), np.ascontiguousarray(el, dtype=float)
+    if az.size <= FEW_DIRECTIONS:  # a near source's direction: worked, not kept (they crowded out the sky's tables)
+        return tx.vertical.complex_response(freq_hz, az, el)[0]
     key = ("response", _params_json(tx.vertical.params), float(freq_hz), az.shape, az.tobytes(), el.tobytes())
     return _TABLES.get(key, lambda: tx.vertical.complex_response(freq_hz, az, el)[0])
+
+
+FEW_DIRECTIONS = 8
+"""Direction sets this small (a placed source's, snrgain.model.placed) are worked each time, not kept in the tables
+memo: cheap, and each would push out a sky grid's table."""
 
 
 def scattered(antenna, tx: TxVertical, freq_hz: float, azimuth_rad, elevation_rad, *, at_m, terms=None):
@@ -752,6 +759,8 @@ def _reradiated(tx: TxVertical, freq_hz: float, az, el, ref) -> np.ndarray:
         z = self_impedance(tx, freq_hz) + tx.load_ohm
         return effective_height_scale(tx, freq_hz) * e_tx * phi / z
 
+    if az.size <= FEW_DIRECTIONS:
+        return make()
     key = (
         "reradiated",
         _params_json(tx.vertical.params),

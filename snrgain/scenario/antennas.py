@@ -45,7 +45,14 @@ class PlaceSection(StrictModel):
             if span > 180.0:  # clockwise from the first: ["60 deg", "30 deg"] ran 330 deg through north
                 raise ValueError(
                     f"bearing: from {a:g} deg clockwise to {b:g} deg spans {span:g} deg, past north and round; "
-                    f"write [{b:g}, {a:g}] for the {360.0 - span:g} deg between them, or split a wider range"
+                    f"write [{b:g}, {a:g}] for the {360.0 - span:g} deg between them (layout turns an antenna within "
+                    "half a turn: its bearing is its targets')"
+                )
+            if span == 0.0 and self.bearing[0] != self.bearing[1]:  # ["0 deg", "360 deg"]: one bearing, not a turn
+                raise ValueError(
+                    f"bearing: {np.degrees(self.bearing[0]):g} and {np.degrees(self.bearing[1]):g} deg are one "
+                    "bearing; give a range of at most half a turn clockwise, or leave bearing out to keep the one "
+                    "written"
                 )
         return self
 

@@ -134,11 +134,16 @@ def _after_antennas(model: ScenarioModel, built: Built, file_reference, length_u
         if problems:
             return None, {}, problems
     transmitting, problems = transmitting_vertical(model.site.transmitting, built, file_reference)
-    given = {
-        t.get("name", "reference")
-        for t in [*(model.candidate or []), model.reference or {}]
-        if isinstance(t, dict) and ("position" in t or "positions" in t)
-    }
+    given = {}  # the tables that place their antenna: name -> the key that does it
+    for t in [*(model.candidate or []), model.reference or {}]:
+        if not isinstance(t, dict):
+            continue
+        elements = t.get("elements") if isinstance(t.get("elements"), list) else []
+        key = next((k for k in ("position", "positions") if k in t), None)
+        if key is None and any(isinstance(e, dict) and "position" in e for e in elements):
+            key = "elements"  # an array placed by its elements' positions
+        if key is not None:
+            given[t.get("name", "reference")] = key
     problems = problems or clear_of_scatterers(transmitting, built, model.site, given)
     if problems or not built.feed_lines:
         return transmitting, {}, problems

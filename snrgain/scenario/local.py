@@ -131,6 +131,19 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
                     )
                 )
                 break
+        else:  # and from every structure's foot: its re-radiation reads the source's field along it
+            for st in getattr(site, "structures", ()) or ():
+                gap = float(np.hypot(*(point - np.asarray(st.position, dtype=float))))
+                if gap < MIN_SOURCE_GAP_M:
+                    key = "position" if raw.position is not None else "latitude"
+                    out.append(
+                        (
+                            f'noise.local {i + 1} ("{raw.name}").{key}',
+                            f"the source stands {gap:.2f} m from the structure {st.name!r}; place it at least "
+                            f"{MIN_SOURCE_GAP_M:g} m away from it",
+                        )
+                    )
+                    break
     return out
 
 

@@ -488,6 +488,7 @@ def sided(res: LocateResult, text: str, *, at_m=None, name: str = "located sourc
     import tomllib
     from dataclasses import replace
 
+    from snrgain.fields import plan_point
     from snrgain.units import parse_quantity
 
     local = tomllib.loads(text).get("noise", {}).get("local", [])
@@ -500,7 +501,7 @@ def sided(res: LocateResult, text: str, *, at_m=None, name: str = "located sourc
             if was is not None and "bearing" in was:
                 bearing = np.degrees(parse_quantity(was["bearing"], "angle"))
             elif was is not None and "position" in was and at_m is not None:
-                e, n = (parse_quantity(v, "length") for v in was["position"])
+                e, n = plan_point(was["position"])  # as the scenario reads it: bare numbers are metres
                 bearing = np.degrees(np.arctan2(e - at_m[0], n - at_m[1]))
         except (TypeError, ValueError):
             bearing = None  # a table the scenario's check refuses anyway: no side to take from it
