@@ -44,3 +44,10 @@ def check_frequency_hz(freq_hz: float, what: str = "frequency") -> float:
     if not lo <= freq_hz <= hi:
         raise ValueError(f"{what} must be between {lo / 1e6:g} and {hi / 1e6:g} MHz; got {freq_hz / 1e6:g} MHz")
     return freq_hz
+
+
+MIN_GAP_M = 1.0
+"""The least distance on the plan between a placed noise source, a structure's foot or the transmitting vertical's
+base and any antenna's feed point, wire or element [m] (snrgain.scenario.local, snrgain.scenario.structures): closer,
+the two stand in one place, and neither the source's direction and field nor the re-radiation's coupling is defined
+(a Beverage at the vertical's base read 56 dB louder than the vertical itself)."""

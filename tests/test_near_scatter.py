@@ -64,24 +64,9 @@ def _models():
             "ground_loss": "0 ohm",  # NEC's junction taken out of its loads (make_nearscatter.py)
         }
     )
-    tx = from_spec(
-        {
-            "family": "vertical",
-            "height": f"{t['height_m']} m",
-            "diameter": f"{2 * t['radius_m']} m",
-            "ground": LOAM,
-            "ground_loss": f"{t['ground_loss_ohm']} ohm",
-        }
-    )
-    reference = from_spec(
-        {
-            "family": "vertical",
-            "height": f"{t['height_m']} m",
-            "diameter": f"{2 * t['radius_m']} m",
-            "ground": LOAM,
-            "position": [0, 0],
-        }
-    )
+    vertical = {"family": "vertical", "height": f"{t['height_m']} m", "diameter": f"{2 * t['radius_m']} m"}
+    tx = from_spec({**vertical, "ground": LOAM, "ground_loss": f"{t['ground_loss_ohm']} ohm"})
+    reference = from_spec({**vertical, "ground": LOAM, "position": [0, 0]})
     return {"whip": whip, "pair": pair}, tx, reference
 
 

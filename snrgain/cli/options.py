@@ -352,31 +352,26 @@ def rebased_paths(text: str, scenario, path) -> tuple[str, list[tuple[str, str]]
     return text, list(moved.items())
 
 
-def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], option: str = "--format") -> str:
-    """The format to write: the one ``option`` gives, or, where it was left to its default, the one the output's name
-    says (``suffixes``: each format's names; "-o r.json" writes JSON); refused before any work when the two are given
-    and disagree ("--format csv -o r.json" wrote CSV into it).  A name no format claims is the user's choice."""
+def check_suffix(path, fmt: str, suffixes: dict[str, tuple[str, ...]], param: str = "fmt") -> str:
+    """The format to write: the one the option (parameter ``param``) gives, or, where it was left to its default,
+    the one the output's name says (``suffixes``: each format's names; "-o r.json" writes JSON); refused before any
+    work when the two are given and disagree ("--format csv -o r.json" wrote CSV into it).  A name no format claims
+    is the user's choice."""
     if path is None or str(path) == "-":
         return fmt
     suffix = Path(path).suffix.lower()
-    ctx = click.get_current_context(silent=True)
-    name = option.lstrip("-").replace("-", "_")
-    left = ctx is not None and (
-        ctx.get_parameter_source("fmt" if name == "format" else name) == click.core.ParameterSource.DEFAULT
-    )
     said = next((f for f, names in suffixes.items() if suffix in names), None)
-    if left and said is not None:
+    if said is None or said == fmt:
+        return fmt
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None and ctx.get_parameter_source(param) == click.core.ParameterSource.DEFAULT:
         return said
-    for other, names in suffixes.items():
-        if other != fmt and suffix in names and suffix not in suffixes.get(fmt, ()):
-            mine = suffixes.get(fmt) or ()
-            instead = f"name it {mine[0]}, or " if mine else ""
-            raise click.BadParameter(
-                f"{path}: the name ends in {suffix}, a {other} file's, but {option} is {fmt}; {instead}give "
-                f"{option} {other}",
-                param_hint="--output",
-            )
-    return fmt
+    mine = suffixes.get(fmt) or ()
+    instead = f"name it {mine[0]}, or " if mine else ""
+    raise click.BadParameter(
+        f"{path}: the name ends in {suffix}, a {said} file's, but --format is {fmt}; {instead}give --format {said}",
+        param_hint="--output",
+    )
 
 
 def check_output(path, *, overwrite: bool, replaces=None) -> None:

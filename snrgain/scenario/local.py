@@ -8,6 +8,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from snrgain.antennas import Antenna
+from snrgain.constants import MIN_GAP_M
 
 from .noise import LocalSource, resolve_local_source
 
@@ -68,9 +69,9 @@ def local_levels_readable(
     return out
 
 
-MIN_SOURCE_GAP_M = 1.0
-"""The least distance on the plan between a placed noise source and any antenna's feed point, wire or element [m]:
-closer, its direction and field at the antenna are not defined."""
+MIN_SOURCE_GAP_M = MIN_GAP_M
+"""The least distance on the plan between a placed noise source and any antenna's feed point, wire or element [m]
+(snrgain.constants.MIN_GAP_M)."""
 
 
 def antenna_outline(antenna, reference_m) -> list[np.ndarray]:

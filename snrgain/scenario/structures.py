@@ -3,6 +3,7 @@ what they do is computed by snrgain.model.scatter."""
 
 from __future__ import annotations
 
+from snrgain.constants import MIN_GAP_M
 from snrgain.fields import Name, PlanPoint, StrictModel, quantity
 
 
@@ -61,21 +62,11 @@ def transmitting_vertical(given: str | None, built, file_reference) -> tuple[str
     return given, []
 
 
-def _min_gap_m() -> float:
-    """The least distance on the plan between the transmitting vertical (or a structure) and any receiving antenna's
-    feed point, wire or element [m], the one a placed source keeps from them (snrgain.scenario.local
-    MIN_SOURCE_GAP_M): closer, the two stand in one place (a wire through the vertical's base, a whip on it) and the
-    re-radiation's coupling is not defined (it read a Beverage 56 dB louder than the vertical itself)."""
-    from snrgain.scenario.local import MIN_SOURCE_GAP_M
-
-    return MIN_SOURCE_GAP_M
-
-
 def clear_of_scatterers(transmitting: str | None, built, site, placed_by_user=None) -> list[tuple[str, str]]:
     """Every receiving antenna the file places (``placed_by_user``: the names, a switched antenna's group among them,
     of the tables that give a ``position``, ``positions`` or elements' positions, each with that key; None: every
     antenna with one) stands at least
-    :func:`_min_gap_m` on the plan from the transmitting vertical's base (where
+    :data:`snrgain.constants.MIN_GAP_M` on the plan from the transmitting vertical's base (where
     :func:`snrgain.model.scatter.tx_antenna` stands it: its position, or the plan's origin when the site has a lot;
     nothing is said without either) and from every structure's foot; one without a position stands at the
     reference's place by design.  Problems as (path, message)."""
@@ -97,7 +88,7 @@ def clear_of_scatterers(transmitting: str | None, built, site, placed_by_user=No
             continue
         for what, foot in [*feet, *((f"the structure {o.name!r}", o.position) for o in structures[:i])]:
             gap = float(np.hypot(*(np.asarray(st.position, dtype=float) - np.asarray(foot, dtype=float))))
-            if gap < _min_gap_m():
+            if gap < MIN_GAP_M:
                 out.append(
                     (
                         f'site.structures {i + 1} ("{st.name}").position',
@@ -117,13 +108,13 @@ def clear_of_scatterers(transmitting: str | None, built, site, placed_by_user=No
         for what, foot in feet:
             point = np.asarray([float(v) for v in foot], dtype=float)
             gap = min(gap_m(point, shape) for shape in antenna_outline(ant, (0.0, 0.0)))
-            if gap < _min_gap_m():
+            if gap < MIN_GAP_M:
                 key = written or ("positions" if getattr(ant, "positions", None) is not None else "position")
                 out.append(
                     (
                         f"{where}.{key}",
                         f"it stands {gap:.2f} m from {what} on the plan: two antennas cannot stand in one place; keep "
-                        f"every feed point, wire and element at least {_min_gap_m():g} m away (half a wavelength "
+                        f"every feed point, wire and element at least {MIN_GAP_M:g} m away (half a wavelength "
                         "from a transmitting vertical is common practice)",
                     )
                 )
