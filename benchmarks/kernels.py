@@ -219,21 +219,32 @@ def small_loop_floor(ant, struct):
 
 def array_floor(ant, struct):
     """Phased verticals (snrgain.antennas.array): one element's field times the weighted sum of the elements'
-    position phases."""
+    position phases, each phase exp(j k east x) exp(j k north y) from one exponential per distinct nonzero
+    coordinate (which coordinate each element takes worked out before the clock starts; the cases here stand with
+    an element at the origin, so no reference phase)."""
     el_u, inv, cos_az, sin_az = struct
     k, scale2, z, cur = _vertical_constants(ant.elements[0])
     eps = _eps(ant.elements[0].ground, F)
     s_u, c_u = np.sin(el_u), np.cos(el_u)
     amps = ant.element_amplitudes(F)
     x, y = ant.positions[:, 0], ant.positions[:, 1]
+    xs, ys = sorted({v for v in x if v}), sorted({v for v in y if v})
+    terms = [(a, xs.index(xi) if xi else None, ys.index(yi) if yi else None) for a, xi, yi in zip(amps, x, y)]
 
     def run():
         e = _vertical_field(k, z, cur, eps, s_u, c_u)
         ce = c_u[inv]
-        east, north = ce * sin_az, ce * cos_az
-        af = amps[0] * np.exp(1j * k * (east * x[0] + north * y[0]))
-        for i in range(1, len(x)):
-            af += amps[i] * np.exp(1j * k * (east * x[i] + north * y[i]))
+        kx, ky = k * ce * sin_az, k * ce * cos_az
+        ex = [np.exp(1j * v * kx) for v in xs]
+        ey = [np.exp(1j * v * ky) for v in ys]
+        af = np.zeros(kx.shape, dtype=complex)
+        for a, i, j in terms:
+            if i is None and j is None:
+                af += a
+            elif i is None or j is None:
+                af += a * (ex[i] if j is None else ey[j])
+            else:
+                af += a * (ex[i] * ey[j])
         e2 = scale2 * (e.real**2 + e.imag**2)
         return e2[inv] * (af.real**2 + af.imag**2)
 

@@ -245,3 +245,62 @@ def test_phased_verticals_elements_take_the_arrays_diameter():
         }
     )
     assert [e.radius_m for e in a.elements] == [0.02, 0.02]
+
+
+QUARTER_183 = C_M_PER_S / 1.83e6 / 4
+
+
+@pytest.mark.parametrize(
+    "positions, exponentials",
+    [
+        ([[0, 0], [QUARTER_183, 0], [0, QUARTER_183], [QUARTER_183, QUARTER_183]], 2),  # four-square, square
+        ([[100, -250], [120, -250], [100, -230], [120, -230]], 3),  # the same off the origin: a reference phase
+        ([[0, 20], [20 + 1e-12, 0], [0, -20], [-20, 0]], 2),  # diamond, one offset 1 pm off (one offset all the same)
+        ([[0, 0], [0, 41]], None),  # a pair: one exponential, one per element
+        ([[3, 4], [5, 6], [7, 1]], None),  # nothing shared: one per element
+        ([[0, 0]], None),
+    ],
+)
+def test_position_factor_is_the_weighted_sum_of_position_phases(positions, exponentials):
+    """The array factor sum_i a_i exp(j (kx x_i + ky y_i)) with the fewest exponentials
+    (snrgain.antennas.array.position_factor) against the sum written out; and how many it takes."""
+    from snrgain.antennas.array import _factor_plan, position_factor
+
+    rng = np.random.default_rng(7)
+    kx, ky = rng.normal(size=300) * 0.04, rng.normal(size=300) * 0.04  # wave numbers at 1.8 MHz, any direction
+    amps = rng.normal(size=len(positions)) + 1j * rng.normal(size=len(positions))
+    direct = sum(a * np.exp(1j * (kx * x + ky * y)) for a, (x, y) in zip(amps, positions))
+    np.testing.assert_allclose(position_factor(amps, positions, kx, ky), direct, rtol=0, atol=1e-9)
+    x0, y0, xs, ys, terms = _factor_plan(tuple(map(tuple, np.asarray(positions, dtype=float))))
+    if exponentials is None:
+        assert terms is None
+    else:
+        assert len(xs) + len(ys) + (x0 != 0 or y0 != 0) == exponentials
+
+
+@pytest.mark.parametrize(
+    "element",
+    [
+        {"family": "vertical", "height": "6 m", "ground": "moist loam"},
+        {"family": "small-loop", "width": "2 m", "loop_height": "2 m", "height": "3 m", "ground": "moist loam"},
+    ],
+)
+def test_array_gain_is_its_complex_response_squared(element):
+    """An array of identical elements takes its gain from |element|^2 |array factor|^2 (no complex product, for a
+    vertical on the distinct elevations): the same as |complex response|^2, below the horizon too."""
+    q = QUARTER_183
+    spec = {
+        "family": "array",
+        "elements": [{**element, "position": [x, y]} for x, y in ((0, 0), (q, 0), (0, q), (q, q))],
+        "steering": "given",
+    }
+    spec["elements"] = [{**e, "phase": p} for e, p in zip(spec["elements"], (0, 90, 90, 180))]
+    spec["phase_sense"] = "lag"
+    ant = from_spec(spec)
+    az = np.radians(np.linspace(0, 358, 180))[:, None] * np.ones((1, 7))
+    el = np.radians(np.array([-10, 0, 1, 10, 30, 60, 90]))[None, :] * np.ones((180, 1))
+    gv, gh = ant.partial_gains(1.83e6, az, el)
+    ev, eh = ant.complex_response(1.83e6, az, el)
+    np.testing.assert_allclose(gv, np.abs(ev) ** 2, rtol=1e-12, atol=1e-300)
+    np.testing.assert_allclose(gh, np.abs(eh) ** 2, rtol=1e-12, atol=1e-300)
+    assert np.all(gv[:, 0] == 0) and np.max(gv) > 0

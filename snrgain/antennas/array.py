@@ -45,6 +45,7 @@ Elements must be of one family (their phase conventions then agree).
 from __future__ import annotations
 
 import copy as _copy
+import functools
 from typing import Any, Literal
 
 import numpy as np
@@ -362,7 +363,7 @@ class Array(Antenna):
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
         geo = direction_geometry(az, el)
-        east, north = geo.ce * geo.sin_az, geo.ce * geo.cos_az  # horizontal direction, scaled by cos(elevation)
+        east, north = geo.east, geo.north  # horizontal direction, scaled by cos(elevation)
         rv = np.empty((len(self.elements), *az.shape), dtype=complex)
         rh = np.empty_like(rv)
         cache: dict[str, tuple] = {}
@@ -381,23 +382,9 @@ class Array(Antenna):
         return np.eye(len(self.elements))
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
-        if (
-            not self.composite
-            and len({e.params.model_dump_json(exclude={"position", "name"}) for e in self.elements}) == 1
-        ):
-            # Identical elements (the usual array): one element's response r times the amplitudes' sum of the
-            # positions' phases, sum_i a_i r e^{j k p_i.d} = r sum_i a_i e^{j k p_i.d} (element_amplitudes: the
-            # weights over the combiner's norm, and for elements fed by lines their coupled currents), without
-            # forming each element's product.
-            az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
-            k = 2 * np.pi * freq_hz / C_M_PER_S
-            geo = direction_geometry(az, el)
-            east, north = geo.ce * geo.sin_az, geo.ce * geo.cos_az
-            factor = np.zeros(az.shape, dtype=complex)
-            for a, pos in zip(self.element_amplitudes(freq_hz), self.positions):
-                factor += a * np.exp(1j * k * (east * pos[0] + north * pos[1]))
-            ev, eh = self.elements[0].complex_response(freq_hz, az, el)
-            return ev * factor, (eh * factor if np.any(eh) else np.zeros_like(factor))
+        if not self.composite and self._identical_elements():
+            ev, eh, factor = self._element_and_factor(freq_hz, azimuth_rad, elevation_rad)
+            return ev * factor, (np.zeros_like(factor) if eh is None else eh * factor)
         w = self.weights_at(freq_hz)
         rv, rh = self.element_responses(freq_hz, azimuth_rad, elevation_rad)
         norm = float(np.real(w.conj() @ self.norm_matrix(freq_hz) @ w))
@@ -405,9 +392,47 @@ class Array(Antenna):
         # einsum, not tensordot: a product this small must not start multithreaded BLAS (slow under load)
         return np.einsum("i,i...->...", w, rv) * scale, np.einsum("i,i...->...", w, rh) * scale
 
+    def _element_and_factor(self, freq_hz, azimuth_rad, elevation_rad):
+        """Identical elements (the usual array): (one element's response r_v, r_h (None where it has no horizontal
+        part), the amplitudes' sum of the positions' phases), whose product is the array's response."""
+        az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
+        factor = self._position_factor(freq_hz, az, el)
+        ev, eh = self.elements[0].complex_response(freq_hz, az, el)
+        return ev, (eh if np.any(eh) else None), factor
+
+    def _position_factor(self, freq_hz, az, el):
+        """sum_i a_i e^{j k p_i.d} toward directions (az, el) (arrays of one shape): with identical elements the
+        array's response is one element's times it, sum_i a_i r e^{j k p_i.d} = r sum_i a_i e^{j k p_i.d}
+        (element_amplitudes: the weights over the combiner's norm, and for elements fed by lines their coupled
+        currents), without forming each element's product."""
+        k = 2 * np.pi * freq_hz / C_M_PER_S
+        geo = direction_geometry(az, el)
+        return position_factor(self.element_amplitudes(freq_hz), self.positions, k * geo.east, k * geo.north)
+
+    def _identical_elements(self) -> bool:
+        """True when every element is the same antenna but for its position (worked out once: elements are fixed
+        when the array is built)."""
+        if getattr(self, "_identical", None) is None:
+            self._identical = len({e.params.model_dump_json(exclude={"position", "name"}) for e in self.elements}) == 1
+        return self._identical
+
     def partial_gains(self, freq_hz, azimuth_rad, elevation_rad):
+        if not self.composite and self._identical_elements():  # |r|^2 |factor|^2, no product of the complex fields
+            elem = self.elements[0]
+            if hasattr(elem, "elevation_response"):  # a pattern of elevation alone: |r|^2 on distinct elevations
+                az, el = np.broadcast_arrays(
+                    np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float)
+                )
+                factor = self._position_factor(freq_hz, az, el)
+                e, inv, up = elem.elevation_response(freq_hz, az, el)
+                gv = (e.real * e.real + e.imag * e.imag)[inv] * (factor.real**2 + factor.imag**2)
+                return (gv if up is None else np.where(up, gv, 0.0)), np.zeros_like(gv)
+            ev, eh, factor = self._element_and_factor(freq_hz, azimuth_rad, elevation_rad)
+            f2 = factor.real**2 + factor.imag**2
+            gv = (ev.real**2 + ev.imag**2) * f2
+            return gv, (np.zeros_like(gv) if eh is None else (eh.real**2 + eh.imag**2) * f2)
         ev, eh = self.complex_response(freq_hz, azimuth_rad, elevation_rad)
-        return np.abs(ev) ** 2, np.abs(eh) ** 2
+        return ev.real**2 + ev.imag**2, eh.real**2 + eh.imag**2
 
     def element_amplitudes(self, freq_hz: float) -> np.ndarray:
         """a_i with :meth:`complex_response` = sum_i a_i r_i, r_i element i's own response with its position phase:
@@ -480,6 +505,63 @@ class Array(Antenna):
         else:
             d = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in self.weights])
         return d - d.min()
+
+
+def position_factor(amplitudes, positions, kx, ky) -> np.ndarray:
+    """sum_i a_i exp(j (kx x_i + ky y_i)): the elements' position phases weighted, toward directions whose wave
+    numbers east and north are ``kx``, ``ky`` [rad/m] (arrays of one shape), for positions (x_i, y_i) [m].
+
+    Written with the fewest complex exponentials, the kernel's cost (:func:`_factor_plan`)."""
+    x0, y0, xs, ys, terms = _factor_plan(tuple(map(tuple, np.asarray(positions, dtype=float))))
+    if terms is None:  # one exponential per element
+        factor = np.zeros(np.shape(kx), dtype=complex)
+        for a, (x, y) in zip(amplitudes, positions):
+            factor += a * np.exp(1j * (kx * x + ky * y)) if x != 0 or y != 0 else a
+        return factor
+    ex = [np.exp(1j * v * kx) for v in xs]
+    ey = [np.exp(1j * v * ky) for v in ys]
+    factor = np.zeros(np.shape(kx), dtype=complex)
+    for a, (i, conj_x, j, conj_y) in zip(amplitudes, terms):
+        fx = None if i is None else ex[i].conj() if conj_x else ex[i]
+        fy = None if j is None else ey[j].conj() if conj_y else ey[j]
+        if fx is None and fy is None:
+            factor += a
+        elif fx is None or fy is None:
+            factor += a * (fy if fx is None else fx)
+        else:
+            factor += a * (fx * fy)
+    if x0 != 0 or y0 != 0:
+        factor *= np.exp(1j * (kx * x0 + ky * y0))
+    return factor
+
+
+@functools.lru_cache(maxsize=256)
+def _factor_plan(positions: tuple[tuple[float, float], ...]):
+    """How :func:`position_factor` forms the phases of elements at ``positions``: (x0, y0, distinct |x - x0|,
+    distinct |y - y0|, per element (index into the first, conjugate?, index into the second, conjugate?)), with
+    exp(j kx x) exp(j ky y) taken once per distinct nonzero offset from (x0, y0), the coordinates most elements
+    share (a negative offset is the conjugate), and the reference phase exp(j (kx x0 + ky y0)) only when (x0, y0)
+    is not the origin.  A four-square, square or diamond, then needs two exponentials instead of four.  Offsets
+    within 1 nm count as one (a phase error below 1e-6 rad at 30 MHz).  ``terms`` None: the plan saves nothing,
+    one exponential per element (none for an element at the origin)."""
+    pos = np.array(positions, dtype=float)
+    x0, y0 = (_most_common(pos[:, i]) for i in (0, 1))
+    dx, dy = np.round(pos[:, 0] - x0, 9), np.round(pos[:, 1] - y0, 9)
+    xs, ys = np.unique(np.abs(dx[dx != 0])).tolist(), np.unique(np.abs(dy[dy != 0])).tolist()
+    if len(xs) + len(ys) + (x0 != 0 or y0 != 0) >= np.count_nonzero((pos[:, 0] != 0) | (pos[:, 1] != 0)):
+        return x0, y0, xs, ys, None
+
+    def index(table, d):
+        return (None, False) if d == 0 else (table.index(abs(d)), bool(d < 0))
+
+    return x0, y0, xs, ys, tuple((*index(xs, float(a)), *index(ys, float(b))) for a, b in zip(dx, dy))
+
+
+def _most_common(values: np.ndarray) -> float:
+    """The value most entries share (the first such, in order of the entries); 0 when 0 is among the most shared."""
+    vals, counts = np.unique(values, return_counts=True)
+    best = vals[counts == counts.max()]
+    return 0.0 if 0.0 in best else float(values[np.isin(values, best)][0])
 
 
 def shortest_lags(weights) -> np.ndarray:

@@ -41,6 +41,11 @@ class Geometry:
     sin_az: np.ndarray
     all_up: bool = False
     """Every direction at or above the horizon (no mask for a pattern to apply)."""
+    east: np.ndarray | None = None
+    """cos(elevation) sin(azimuth): the direction's component east (with :attr:`north`, what a position phase
+    reads)."""
+    north: np.ndarray | None = None
+    """cos(elevation) cos(azimuth): its component north."""
 
 
 _GEOMETRY: OrderedDict = OrderedDict()
@@ -67,7 +72,9 @@ def direction_geometry(az: np.ndarray, el: np.ndarray) -> Geometry:
     inv = inv.reshape(el.shape)
     c_u = np.cos(el_u)
     all_up = bool(el.size == 0 or el.min() >= 0.0)
-    geo = Geometry(az.copy(), el.copy(), el_u, inv, c_u, np.sin(el_u), c_u[inv], np.cos(az), np.sin(az), all_up)
+    ce, cos_az, sin_az = c_u[inv], np.cos(az), np.sin(az)
+    east, north = ce * sin_az, ce * cos_az
+    geo = Geometry(az.copy(), el.copy(), el_u, inv, c_u, np.sin(el_u), ce, cos_az, sin_az, all_up, east, north)
     _GEOMETRY[key] = geo
     if len(_GEOMETRY) > _GEOMETRY_SLOTS:
         _GEOMETRY.popitem(last=False)

@@ -239,10 +239,12 @@ class Vertical(Antenna):
         p_rad, i_sq = self._power_terms(freq_hz)
         return p_rad / (p_rad + 0.5 * i_sq * self.ground_loss_ohm)
 
-    def _distinct_response(self, freq_hz, azimuth_rad, elevation_rad):
-        """(the vertical response on the distinct elevations, their index per direction, the above-horizon mask):
-        the pattern depends on the elevation alone, so it is worked on the distinct elevations (kept per direction
-        set by direction_geometry) and spread."""
+    def elevation_response(self, freq_hz, azimuth_rad, elevation_rad):
+        """(the vertical response on the distinct elevations, their index per direction, the above-horizon mask or
+        None when every direction is up): the pattern depends on the elevation alone, so it is worked on the
+        distinct elevations (kept per direction set by direction_geometry) and spread.  An array of these reads it
+        (snrgain.antennas.array.Array.partial_gains); a family whose pattern depends on elevation alone may give
+        it too."""
         self.check_frequency(freq_hz)
         az, el = np.broadcast_arrays(np.asarray(azimuth_rad, dtype=float), np.asarray(elevation_rad, dtype=float))
         k = 2 * np.pi * freq_hz / C_M_PER_S
@@ -255,7 +257,7 @@ class Vertical(Antenna):
         return scale * geo.c_u * f, geo.inv, (None if geo.all_up else above_horizon(el))
 
     def complex_response(self, freq_hz, azimuth_rad, elevation_rad):
-        e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
+        e, inv, up = self.elevation_response(freq_hz, azimuth_rad, elevation_rad)
         ev = e[inv] if up is None else np.where(up, e[inv], 0.0)
         return ev, np.zeros_like(ev)
 
@@ -304,7 +306,7 @@ class Vertical(Antenna):
         return (np.interp(z, zs, cs.real) + 1j * np.interp(z, zs, cs.imag)) * ((1.0 - np.cos(k * h)) / k / area)
 
     def gain_linear(self, freq_hz, azimuth_rad, elevation_rad):
-        e, inv, up = self._distinct_response(freq_hz, azimuth_rad, elevation_rad)
+        e, inv, up = self.elevation_response(freq_hz, azimuth_rad, elevation_rad)
         p = (e.real * e.real + e.imag * e.imag)[inv]
         return p if up is None else np.where(up, p, 0.0)
 
