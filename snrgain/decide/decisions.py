@@ -65,6 +65,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
     out.extend(local_source_notices(sc, antennas[1:]))
     out.extend(fragile_termination_notices(sc))
+    from snrgain.decide.tolerance import phasing_tolerance_notices
+
+    out.extend(phasing_tolerance_notices(sc))
     from snrgain.decide.lot import site_notices
     from snrgain.decide.reading import reading_notices
     from snrgain.model.feedline import notices as feed_line_notices

@@ -29,7 +29,11 @@ class Notice:
     snrgain.decide.lot), ``local-source-dominates`` (source, source_dbm, rest_dbm, over_db: a candidate whose loudest
     local source is 6 dB or more above the rest of its noise; snrgain.decide.decisions), ``termination-fragile``
     (termination_ohm, matched_ohm, over_matched_db, front_to_back_db, front_to_back_matched_db: a resistor chosen for
-    SNR that beats |Z0| by under 1 dB at 10 dB or more of front-to-back; snrgain.decide.decisions).
+    SNR that beats |Z0| by under 1 dB at 10 dB or more of front-to-back; snrgain.decide.decisions),
+    ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and
+    front_to_back_drawn_db: their 10, 50 and 90 % points with the phasing lines cut with a cable's usual errors,
+    longest_delay_ns, longest_error_ns, velocity_factor_error, length_error_m, draws: an array whose figures rest on
+    lines cut closer than that; snrgain.decide.tolerance).
     """
 
     code: str

@@ -1,0 +1,128 @@
+"""How much a phased array's figures rest on phasing lines cut exactly: the ``phasing-tolerance`` notice.
+
+Arrays steered for the most RDF from a small footprint (the default four-square of verticals a fifth of a wavelength
+apart) are superdirective: their rear null and part of their RDF come from nearly cancelling the elements' signals,
+and small errors in the delays undo it.  The sensitivity of such arrays to random errors is textbook (E. N. Gilbert
+and S. P. Morgan, "Optimum design of directive antenna arrays subject to random variations", Bell System Technical
+Journal 34, 1955, cited from memory); here it is measured on the array itself, as built:
+
+- each phasing line is cut by a velocity factor VELOCITY_FACTOR_ERROR off (one error for all of them: the lines come
+  from one reel; the spread between cables sold as one type is a few percent, common practice), and each line's own
+  length is off by LENGTH_ERROR_M of cable (cutting and connectors);
+- the array's delays (:meth:`snrgain.antennas.array.Array.effective_delays_s`) move by those errors in DRAWS random
+  draws (normal, a fixed seed: the same numbers every run), and its RDF and front-to-back toward its bearing at its
+  aiming elevation are worked for each (the RDF over the HEALPix hemisphere of NSIDE);
+- the notice is given where one build in ten (the draws' 10 % point) loses RDF_LOSS_DB or more of RDF, or loses
+  FRONT_TO_BACK_LOSS_DB or more of front-to-back and keeps less than FRONT_TO_BACK_KEPT_DB (snrgain's thresholds: a
+  rear null steered to be exact always loses depth, but one that keeps 20 dB still does its work).  Front-to-back is
+  read up to FRONT_TO_BACK_CAP_DB: an exact null says "over 40 dB", a depth no real array holds across its elements'
+  differences.
+
+The fix the notice names is the trade's: trim each line to its electrical length measured at the operating frequency
+rather than cut it by the printed velocity factor (common practice).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from noisemodels.sphere import upper_hemisphere
+from snrgain.model.results import Notice
+from snrgain.model.snr import sphere_mean_gain
+from snrgain.physics.ground import C_M_PER_S
+
+VELOCITY_FACTOR_ERROR = 0.03
+"""Relative error of the velocity factor the lines are cut by, one for all lines (1 sigma) [-]."""
+LENGTH_ERROR_M = 0.1
+"""Each line's own error in length, as cable (1 sigma) [m]."""
+CUT_VELOCITY_FACTOR = 0.85
+"""Velocity factor turning LENGTH_ERROR_M into time (foam coax, the usual phasing cable; common practice) [-]."""
+DRAWS = 64
+NSIDE = 16
+RDF_LOSS_DB = 1.0
+FRONT_TO_BACK_LOSS_DB = 6.0
+FRONT_TO_BACK_KEPT_DB = 20.0
+FRONT_TO_BACK_CAP_DB = 40.0
+QUANTILES = (0.1, 0.5, 0.9)
+
+
+def line_errors_s(delays_s: np.ndarray, draws: int = DRAWS, seed: int = 0) -> np.ndarray:
+    """Errors of each line's delay [s], shape (draws, elements): the velocity factor's, common to all lines and
+    proportional to each delay, plus each line's own length error (module docstring)."""
+    rng = np.random.default_rng(seed)
+    scale = rng.normal(0.0, VELOCITY_FACTOR_ERROR, size=(draws, 1))
+    own = rng.normal(0.0, LENGTH_ERROR_M / (CUT_VELOCITY_FACTOR * C_M_PER_S), size=(draws, len(delays_s)))
+    return scale * np.asarray(delays_s)[None, :] + own
+
+
+def figures(antenna, freq_hz: float, weights=None) -> tuple[float, float]:
+    """(RDF [dB], front-to-back [dB]) of a phased array toward its bearing at its aiming elevation, with ``weights``
+    in place of its own (None: its own)."""
+    ant = antenna if weights is None else antenna.with_weights(freq_hz, weights, "phasing tolerance")
+    grid = upper_hemisphere(NSIDE)
+    b = float(antenna.params.bearing)
+    el = float(antenna.params.auto_elevation)
+    az = np.concatenate([grid.azimuth_rad, [b, b + np.pi]])
+    els = np.concatenate([grid.elevation_rad, [el, el]])
+    g = ant.gain_linear(freq_hz, az, els)
+    front, back = g[-2], g[-1]
+    mean = sphere_mean_gain(g[:-2], grid)
+    with np.errstate(divide="ignore"):
+        return float(10 * np.log10(front / mean)), float(10 * np.log10(front / back))
+
+
+def tolerance(antenna, freq_hz: float) -> dict | None:
+    """The array's RDF and front-to-back as steered and their 10, 50 and 90 % points over the draws of
+    :func:`line_errors_s` (the longest line's delay and its 1-sigma error too); None for an antenna without phasing
+    lines (not an array of at least two elements fed through delays)."""
+    if getattr(antenna, "composite", False) or not hasattr(antenna, "effective_delays_s"):
+        return None
+    if len(getattr(antenna, "elements", ())) < 2:
+        return None
+    w0 = antenna.weights_at(freq_hz)
+    delays = antenna.effective_delays_s(freq_hz)
+    rdf0, fb0 = figures(antenna, freq_hz)
+    errors = line_errors_s(delays)
+    omega = 2 * np.pi * freq_hz
+    drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e)) for e in errors])
+    rdf_q = np.quantile(drawn[:, 0], QUANTILES)
+    fb_q = np.quantile(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB), QUANTILES)
+    longest = float(np.max(delays))
+    sigma = float(np.hypot(VELOCITY_FACTOR_ERROR * longest, LENGTH_ERROR_M / (CUT_VELOCITY_FACTOR * C_M_PER_S)))
+    return {
+        "bearing_deg": float(np.degrees(antenna.params.bearing)) % 360.0,
+        "elevation_deg": float(np.degrees(antenna.params.auto_elevation)),
+        "rdf_db": rdf0,
+        "front_to_back_db": min(fb0, FRONT_TO_BACK_CAP_DB),
+        "rdf_drawn_db": [float(x) for x in rdf_q],
+        "front_to_back_drawn_db": [float(x) for x in fb_q],
+        "longest_delay_ns": longest * 1e9,
+        "longest_error_ns": sigma * 1e9,
+        "velocity_factor_error": VELOCITY_FACTOR_ERROR,
+        "length_error_m": LENGTH_ERROR_M,
+        "draws": DRAWS,
+    }
+
+
+def asks_for_precision(t: dict) -> bool:
+    """Whether one build in ten (the draws' 10 % point) loses RDF_LOSS_DB of RDF, or loses FRONT_TO_BACK_LOSS_DB of
+    front-to-back and keeps less than FRONT_TO_BACK_KEPT_DB."""
+    rdf_loss = t["rdf_db"] - t["rdf_drawn_db"][0]
+    fb_kept = t["front_to_back_drawn_db"][0]
+    return rdf_loss >= RDF_LOSS_DB or (
+        t["front_to_back_db"] - fb_kept >= FRONT_TO_BACK_LOSS_DB and fb_kept < FRONT_TO_BACK_KEPT_DB
+    )
+
+
+def phasing_tolerance_notices(sc) -> list[Notice]:
+    """``phasing-tolerance`` (the values of :func:`tolerance`) for each candidate array whose figures rest on its
+    phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`)."""
+    out = []
+    for ant in sc.candidates:
+        t = tolerance(ant, sc.freq_hz)
+        if t is not None and asks_for_precision(t):
+            out.append(Notice("phasing-tolerance", ant.name, t))
+    return out
+
+
+__all__ = ["asks_for_precision", "figures", "line_errors_s", "phasing_tolerance_notices", "tolerance"]

@@ -1,0 +1,124 @@
+"""The phasing-tolerance notice (snrgain.decide.tolerance): an array whose RDF or rear null rests on phasing lines cut
+closer than a cable's velocity factor is known is said to, with the figures it keeps in one build in ten."""
+
+import numpy as np
+import pytest
+
+from snrgain.antennas import from_spec
+from snrgain.decide import tolerance as tol
+from snrgain.outputs.messages import notice_text
+from snrgain.physics.ground import C_M_PER_S
+from tests.conftest import REPO
+
+F = 1.83e6
+
+
+def _square(side_m: float, auto_for: str = "rdf", **extra):
+    return from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [side_m, 0], [0, side_m], [side_m, side_m]],
+            "height": "6 m",
+            "ground": "moist loam",
+            "bearing": 45,
+            "auto_for": auto_for,
+            **extra,
+        }
+    )
+
+
+def test_independent_phase_errors_fill_a_null_as_gilbert_and_morgan_say():
+    """Random phase errors of sigma rad on each element (independent, normal) leave the expected power toward a
+    direction at |sum w a|^2 e^{-sigma^2} + (1 - e^{-sigma^2}) sum |w a|^2 (E. N. Gilbert and S. P. Morgan, Bell
+    System Technical Journal 34, 1955; from memory, and the expectation E[e^{j d}] = e^{-sigma^2/2} of a normal d).
+    Toward an exact rear null the first term vanishes: the mean gain there is the second, which the model's array
+    with its weights turned by the errors (Array.with_weights, as the notice turns them) must give."""
+    ant = _square(15.0, auto_for="front_to_back")
+    w0 = ant.weights_at(F)
+    b = float(ant.params.bearing)
+    el = float(ant.params.auto_elevation)
+    az, els = np.array([b + np.pi]), np.array([el])
+    assert ant.gain_linear(F, az, els)[0] < 1e-8 * ant.gain_linear(F, np.array([b]), els)[0]  # an exact null
+    elem = ant.elements[0].gain_linear(F, az, els)[0]
+    a = ant.element_amplitudes(F)  # the weights over the combiner's norm
+    sigma = 0.05
+    rng = np.random.default_rng(3)
+    back = [
+        ant.with_weights(F, w0 * np.exp(-1j * d), "test").gain_linear(F, az, els)[0]
+        for d in rng.normal(0.0, sigma, size=(3000, 4))
+    ]
+    expected = (1 - np.exp(-(sigma**2))) * float(np.sum(np.abs(a) ** 2)) * elem
+    assert np.mean(back) == pytest.approx(expected, rel=0.08)
+
+
+def test_no_error_no_change_and_the_draws_are_the_same_every_run():
+    ant = _square(20.0)
+    rdf, fb = tol.figures(ant, F)
+    assert tol.figures(ant, F, ant.weights_at(F)) == pytest.approx((rdf, fb), abs=1e-9)
+    delays = ant.effective_delays_s(F)
+    e1, e2 = tol.line_errors_s(delays), tol.line_errors_s(delays)
+    assert e1.shape == (tol.DRAWS, 4) and np.array_equal(e1, e2)
+    # the element with no line (delay 0) carries its own length error alone: 10 cm of cable at VF 0.85, about 0.4 ns
+    zero = int(np.argmin(delays))
+    own = tol.LENGTH_ERROR_M / (tol.CUT_VELOCITY_FACTOR * C_M_PER_S)
+    assert np.std(tol.line_errors_s(delays, draws=20000)[:, zero]) == pytest.approx(own, rel=0.03)
+
+
+def test_a_superdirective_square_asks_for_precision_and_a_quarter_wave_one_does_not():
+    """The smaller the square steered for RDF, the more of its RDF rests on exact lines (superdirective arrays are
+    sensitive to errors: Gilbert and Morgan, above): a 0.06-wavelength square loses dB in one build in ten, a
+    quarter-wave one tenths; delay-steered end-fire (the travel-time delays, not superdirective) hardly moves."""
+    losses = []
+    for side in (10.0, 20.0, 41.0):
+        t = tol.tolerance(_square(side), F)
+        assert t["rdf_drawn_db"][0] <= t["rdf_drawn_db"][1] <= t["rdf_drawn_db"][2] <= t["rdf_db"] + 0.05
+        losses.append(t["rdf_db"] - t["rdf_drawn_db"][0])
+    assert losses[0] > losses[1] > losses[2]
+    assert losses[0] > 3.0 and losses[2] < 0.3
+    assert tol.asks_for_precision(tol.tolerance(_square(10.0), F))
+    assert not tol.asks_for_precision(tol.tolerance(_square(41.0), F))
+    end_fire = tol.tolerance(_square(20.0, auto_for="end-fire"), F)
+    assert end_fire["rdf_db"] - end_fire["rdf_drawn_db"][0] < 0.05 and not tol.asks_for_precision(end_fire)
+
+
+def test_an_exact_null_reads_over_40_db_and_is_said_only_when_little_of_it_stays():
+    t = tol.tolerance(_square(41.0, auto_for="front_to_back"), F)
+    assert t["front_to_back_db"] == tol.FRONT_TO_BACK_CAP_DB and t["front_to_back_drawn_db"][0] >= 20.0
+    assert not tol.asks_for_precision(t)  # 40 dB and more becomes 20-40 dB: still a null
+    small = tol.tolerance(_square(15.0, auto_for="front_to_back"), F)
+    assert small["front_to_back_drawn_db"][0] < 20.0 and tol.asks_for_precision(small)
+
+
+def test_no_figures_for_antennas_without_phasing_lines():
+    assert tol.tolerance(from_spec({"family": "vertical", "height": "6 m"}), F) is None
+    assert tol.tolerance(from_spec({"family": "beverage", "length": "200 m", "height": "2.5 m"}), F) is None
+
+
+def test_rank_says_it_for_a_small_square_on_a_site(tmp_path):
+    """The notice through the pipeline and the command line: a 20 m four-square of short verticals steered for RDF
+    at 160 m (a tenth of a wavelength and more, on a small lot) beside the site file's own antennas."""
+    from click.testing import CliRunner
+
+    import snrgain
+    from snrgain.cli.main import cli
+    from snrgain.scenario import load
+
+    site = (REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
+    site += (
+        '\n[[candidate]]\nname = "small square"\nfamily = "phased-verticals"\n'
+        'positions = [["90 m", "40 m"], ["110 m", "40 m"], ["90 m", "60 m"], ["110 m", "60 m"]]\n'
+        'height = "6 m"\nground_loss = "30 ohm"\nbearing = 290\n'
+    )
+    path = tmp_path / "site.toml"
+    path.write_text(site)
+    r = snrgain.evaluate(load(path))
+    said = [n for n in r.notices if n.code == "phasing-tolerance"]
+    assert [n.antenna for n in said] == ["small square"]  # not the quarter-wave-spaced pair of the same file
+    v = said[0].values
+    assert v["rdf_db"] - v["rdf_drawn_db"][0] >= tol.RDF_LOSS_DB
+    text = notice_text(said[0])
+    assert "small square: its phasing asks for precision" in text and "Trim each phasing line" in text
+    assert f"{v['rdf_drawn_db'][0]:.1f} to {v['rdf_drawn_db'][2]:.1f} dB" in text
+    res = CliRunner().invoke(cli, ["rank", str(path)])
+    assert res.exit_code == 0, res.output
+    assert "small square: its phasing asks for precision" in res.output
