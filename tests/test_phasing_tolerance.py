@@ -122,3 +122,27 @@ def test_rank_says_it_for_a_small_square_on_a_site(tmp_path):
     res = CliRunner().invoke(cli, ["rank", str(path)])
     assert res.exit_code == 0, res.output
     assert "small square: its phasing asks for precision" in res.output
+
+
+def test_a_switched_square_is_named_once(tmp_path):
+    """A four-square switched to four bearings is one antenna to build: one warning, by the state that loses most."""
+    import snrgain
+    from snrgain.scenario import load
+
+    site = (REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
+    site += (
+        '\n[[candidate]]\nname = "small square"\nfamily = "phased-verticals"\n'
+        'positions = [["90 m", "40 m"], ["110 m", "40 m"], ["90 m", "60 m"], ["110 m", "60 m"]]\n'
+        'height = "6 m"\nground_loss = "30 ohm"\ndirections = ["45 deg", "135 deg", "225 deg", "315 deg"]\n'
+    )
+    path = tmp_path / "site.toml"
+    path.write_text(site)
+    sc = load(path)
+    r = snrgain.evaluate(sc)
+    said = [n for n in r.notices if n.code == "phasing-tolerance"]
+    assert len(said) == 1 and said[0].antenna == "small square"
+    v = said[0].values
+    assert v["states"] == 4 and v["state"].endswith("deg)")
+    assert notice_text(said[0]).startswith(f"small square (in 4 of its states; {v['state']} shown): its phasing")
+    states = {a.name: tol.tolerance(a, sc.freq_hz) for a in load(path).candidates if a.name.startswith("small")}
+    assert len(states) == 4

@@ -116,12 +116,24 @@ def asks_for_precision(t: dict) -> bool:
 
 def phasing_tolerance_notices(sc) -> list[Notice]:
     """``phasing-tolerance`` (the values of :func:`tolerance`) for each candidate array whose figures rest on its
-    phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`)."""
-    out = []
+    phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`); a switched array
+    once, by the state that loses most RDF in one build in ten (``state``, and ``states`` how many of them ask)."""
+    from snrgain.scenario.switched import switched_state
+
+    out: list[Notice] = []
+    groups: dict[str, list] = {}
     for ant in sc.candidates:
         t = tolerance(ant, sc.freq_hz)
-        if t is not None and asks_for_precision(t):
+        if t is None or not asks_for_precision(t):
+            continue
+        sw = switched_state(ant)
+        if sw is None:
             out.append(Notice("phasing-tolerance", ant.name, t))
+        else:
+            groups.setdefault(sw.group, []).append((sw.state, t))
+    for group, states in groups.items():
+        state, t = max(states, key=lambda st: st[1]["rdf_db"] - st[1]["rdf_drawn_db"][0])
+        out.append(Notice("phasing-tolerance", group, {**t, "state": state, "states": len(states)}))
     return out
 
 

@@ -127,8 +127,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "phasing-tolerance":
         rdf, fb = v["rdf_drawn_db"], v["front_to_back_drawn_db"]
         cap = "over " if v["front_to_back_db"] >= 40.0 else ""
+        which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         return (
-            f"{n.antenna}: its phasing asks for precision: with the lines cut by a velocity factor "
+            f"{n.antenna}{which}: its phasing asks for precision: with the lines cut by a velocity factor "
             f"{100 * v['velocity_factor_error']:.0f} % off and each line {length_text(v['length_error_m'], unit, 1)} "
             f"off (the longest, {v['longest_delay_ns']:.0f} ns, then off by about {v['longest_error_ns']:.0f} ns), "
             f"its RDF toward {v['bearing_deg']:.0f} deg at {v['elevation_deg']:.0f} deg elevation, {v['rdf_db']:.1f} "
