@@ -68,6 +68,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
     out.extend(phasing_tolerance_notices(sc))
+    from snrgain.decide.source_place import source_position_notices
+
+    out.extend(source_position_notices(sc, antennas))
     from snrgain.decide.lot import site_notices
     from snrgain.decide.reading import reading_notices
     from snrgain.model.feedline import notices as feed_line_notices

@@ -140,6 +140,14 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "operating frequency, not to a length from the printed velocity factor (common practice), or space the "
             "elements wider"
         )
+    if n.code == "source-position":
+        return (
+            f"{n.antenna}: its SNR gain rests on exactly where {v['source']!r} stands: moved "
+            f"{length_text(v['step_m'], unit, 0)} north, east, south or west, the gain changes by "
+            f"{signed_text(v['low_db'])} to {signed_text(v['high_db'])} dB (that source is "
+            f"{100 * v['share']:.0f} % of its noise where it stands now). Place the source where it radiates from "
+            "(its wiring, not the building's middle), or take this antenna's figure as that uncertain"
+        )
     if n.code == "local-source-dominates":
         rest = (
             f"against {v['rest_dbm']:.1f} dBm from the sky and the other sources"

@@ -1,0 +1,102 @@
+"""How much a candidate's SNR gain rests on exactly where a placed noise source stands: the ``source-position``
+notice.
+
+A placed source (``[[noise.local]] position``) is heard through each antenna's near-field response, and an antenna
+that happens to null it (a loop's or an array's null, a Beverage's side) can owe dB of its SNR gain to a null whose
+place moves a few metres with the source.  The level's uncertainty is in the spreads; the place is not (a barn's
+wiring, a fence line or a neighbour's supply radiates from metres of conductor, not a point).  So each placed
+source is moved DISPLACEMENT_M north, east, south and west, every antenna's pickup of it worked again
+(:func:`snrgain.model.placed.pickup`, the products' own), the level kept where it is anchored (read on the antenna
+named by ``read_on``, the reference by default, or its Fa where it was measured), and each candidate's noise changed
+by its share of that source (medians over the hours, as at the receiver input).  The SNR gain moves by the
+reference's change less the candidate's (the signal stays).  A candidate whose SNR gain moves by SHIFT_DB or more
+at some displacement is named (snrgain's threshold: half a S-unit).
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from snrgain.model.results import Notice
+
+DISPLACEMENT_M = 5.0
+SHIFT_DB = 3.0
+DIRECTIONS = ((0.0, 1.0), (1.0, 0.0), (0.0, -1.0), (-1.0, 0.0))
+"""North, east, south and west, as unit steps [east, north]."""
+
+
+def _median_watts(values_dbm) -> float:
+    from snrgain.model.spread import median  # np.median's value without loading numpy.ma
+
+    v = np.asarray(values_dbm, dtype=float)
+    return float(median(np.where(np.isfinite(v), 10 ** (v / 10), 0.0)))
+
+
+def source_shares(result, source: str) -> float | None:
+    """The share of ``source`` in an antenna's noise at the receiver input (median powers over the hours), or None
+    where the antenna's noise does not list it."""
+    comps = result.noise_by_component_dbm or {}
+    if comps.get(source) is None:
+        return None
+    watts = {k: _median_watts(v) for k, v in comps.items() if v is not None}
+    total = sum(watts.values())
+    return watts[source] / total if total > 0 else None
+
+
+def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
+    """The change of each antenna's SNR gain [dB] with ``src`` moved ``step_m`` along each of DIRECTIONS: shape
+    (directions, antennas), the reference's column 0 (its gain over itself stays 0)."""
+    from snrgain.model.placed import pickup
+
+    names = [a.name for a in antennas]
+    anchor = names.index(src.read_on) if src.level_dbm is not None and src.read_on in names else 0
+    base, _ = pickup(_with_source(sc, src), antennas)
+    share = np.array([source_shares(r, src.name) or 0.0 for r in results])
+    out = np.zeros((len(DIRECTIONS), len(antennas)))
+    for i, (de, dn) in enumerate(DIRECTIONS):
+        moved = replace(src, position_m=(src.position_m[0] + de * step_m, src.position_m[1] + dn * step_m))
+        got, _ = pickup(_with_source(sc, moved), antennas)
+        s0, s1 = base[src.name], got[moved.name]
+        ratio = (s1 / s1[anchor]) / (s0 / s0[anchor])  # the source's power in each antenna, its level anchored
+        noise_db = 10 * np.log10(np.maximum(1.0 + share * (ratio - 1.0), 1e-30))
+        out[i] = noise_db[0] - noise_db
+    return out
+
+
+def _with_source(sc, src):
+    """The scenario with ``src`` its only local source (the others' pickups do not change with this one's place)."""
+    return replace(sc, noise=replace(sc.noise, local=(src,)))
+
+
+def source_position_notices(sc, results: list) -> list[Notice]:
+    """``source-position`` (source, step_m, low_db, high_db, share) for each candidate whose SNR gain moves by
+    SHIFT_DB or more when a placed source moves DISPLACEMENT_M (module docstring): low and high the least and most
+    of its changes over the four displacements, share the source's share of its noise where it stands."""
+    placed = [s for s in sc.noise.local if s.position_m is not None]
+    if not placed:
+        return []
+    antennas = list(sc.antennas)
+    by_name = {r.name: r for r in results}
+    results = [by_name.get(a.name) for a in antennas]
+    if any(r is None for r in results):
+        return []  # results of other antennas than the scenario's (not the pipeline's own)
+    out = []
+    for src in placed:
+        shifts = shifts_db(sc, antennas, results, src)
+        for k in range(1, len(antennas)):
+            low, high = float(shifts[:, k].min()), float(shifts[:, k].max())
+            if max(abs(low), abs(high)) >= SHIFT_DB:
+                values = {
+                    "source": src.name,
+                    "step_m": DISPLACEMENT_M,
+                    "low_db": low,
+                    "high_db": high,
+                    "share": float(source_shares(results[k], src.name) or 0.0),
+                }
+                out.append(Notice("source-position", antennas[k].name, values))
+    return out
+
+
+__all__ = ["shifts_db", "source_position_notices", "source_shares"]
