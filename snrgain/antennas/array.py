@@ -46,6 +46,7 @@ from __future__ import annotations
 
 import copy as _copy
 import functools
+from collections import Counter
 from typing import Any, Literal
 
 import numpy as np
@@ -547,7 +548,8 @@ def _factor_plan(positions: tuple[tuple[float, float], ...]):
     pos = np.array(positions, dtype=float)
     x0, y0 = (_most_common(pos[:, i]) for i in (0, 1))
     dx, dy = np.round(pos[:, 0] - x0, 9), np.round(pos[:, 1] - y0, 9)
-    xs, ys = np.unique(np.abs(dx[dx != 0])).tolist(), np.unique(np.abs(dy[dy != 0])).tolist()
+    xs, ys = sorted({abs(float(v)) for v in dx if v}), sorted({abs(float(v)) for v in dy if v})  # (not np.unique: it
+    # loads numpy.ma, 5 ms of a rank's start, for a few numbers)
     if len(xs) + len(ys) + (x0 != 0 or y0 != 0) >= np.count_nonzero((pos[:, 0] != 0) | (pos[:, 1] != 0)):
         return x0, y0, xs, ys, None
 
@@ -559,9 +561,9 @@ def _factor_plan(positions: tuple[tuple[float, float], ...]):
 
 def _most_common(values: np.ndarray) -> float:
     """The value most entries share (the first such, in order of the entries); 0 when 0 is among the most shared."""
-    vals, counts = np.unique(values, return_counts=True)
-    best = vals[counts == counts.max()]
-    return 0.0 if 0.0 in best else float(values[np.isin(values, best)][0])
+    counts = Counter(float(v) for v in values)
+    most = max(counts.values())
+    return 0.0 if counts.get(0.0) == most else next(float(v) for v in values if counts[float(v)] == most)
 
 
 def shortest_lags(weights) -> np.ndarray:

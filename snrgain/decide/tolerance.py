@@ -71,6 +71,13 @@ def figures(antenna, freq_hz: float, weights=None) -> tuple[float, float]:
         return float(10 * np.log10(front / mean)), float(10 * np.log10(front / back))
 
 
+def _quantiles(values) -> np.ndarray:
+    """np.quantile(values, QUANTILES)'s numbers (linear between order statistics) without its import of numpy.ma (a
+    warm rank keeps clear of it: tests/test_light_start.py)."""
+    v = np.sort(np.asarray(values, dtype=float))
+    return np.interp(np.asarray(QUANTILES) * (v.size - 1), np.arange(v.size), v)
+
+
 def tolerance(antenna, freq_hz: float) -> dict | None:
     """The array's RDF and front-to-back as steered and their 10, 50 and 90 % points over the draws of
     :func:`line_errors_s` (the longest line's delay and its 1-sigma error too); None for an antenna without phasing
@@ -85,8 +92,8 @@ def tolerance(antenna, freq_hz: float) -> dict | None:
     errors = line_errors_s(delays)
     omega = 2 * np.pi * freq_hz
     drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e)) for e in errors])
-    rdf_q = np.quantile(drawn[:, 0], QUANTILES)
-    fb_q = np.quantile(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB), QUANTILES)
+    rdf_q = _quantiles(drawn[:, 0])
+    fb_q = _quantiles(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB))
     longest = float(np.max(delays))
     sigma = float(np.hypot(VELOCITY_FACTOR_ERROR * longest, LENGTH_ERROR_M / (CUT_VELOCITY_FACTOR * C_M_PER_S)))
     return {
