@@ -79,3 +79,15 @@ def test_rank_prints_it(tmp_path):
     res = CliRunner().invoke(cli, ["rank", str(path)])
     assert res.exit_code == 0, res.output
     assert "flag north: its SNR gain rests on exactly where 'barn light' stands" in res.output
+
+
+def test_a_switched_flag_is_named_once(tmp_path):
+    """A flag switched front and back is one antenna to build: one warning, by the state whose gain moves most."""
+    text = NEAR.replace(
+        'bearing = 0\nposition = ["60 m", "-42 m"]', 'directions = ["0 deg", "180 deg"]\nposition = ["60 m", "-42 m"]'
+    )
+    _, _, r = _decided(text, tmp_path)
+    said = [n for n in r.notices if n.code == "source-position"]
+    assert [n.antenna for n in said] == ["flag north"]
+    assert said[0].values["states"] == 2 and said[0].values["state"].endswith("deg)")
+    assert notice_text(said[0]).startswith(f"flag north (in 2 of its states; {said[0].values['state']} shown)")

@@ -73,7 +73,8 @@ def _with_source(sc, src):
 def source_position_notices(sc, results: list) -> list[Notice]:
     """``source-position`` (source, step_m, low_db, high_db, share) for each candidate whose SNR gain moves by
     SHIFT_DB or more when a placed source moves DISPLACEMENT_M (module docstring): low and high the least and most
-    of its changes over the four displacements, share the source's share of its noise where it stands."""
+    of its changes over the four displacements, share the source's share of its noise where it stands; a switched
+    antenna once, by the state that moves most (``state``, and ``states`` how many of them move that much)."""
     placed = [s for s in sc.noise.local if s.position_m is not None]
     if not placed:
         return []
@@ -82,20 +83,31 @@ def source_position_notices(sc, results: list) -> list[Notice]:
     results = [by_name.get(a.name) for a in antennas]
     if any(r is None for r in results):
         return []  # results of other antennas than the scenario's (not the pipeline's own)
+    from snrgain.scenario.switched import switched_state
+
     out = []
     for src in placed:
         shifts = shifts_db(sc, antennas, results, src)
+        groups: dict[str, list] = {}  # a switched antenna's states: one notice, by the state that moves most
         for k in range(1, len(antennas)):
             low, high = float(shifts[:, k].min()), float(shifts[:, k].max())
-            if max(abs(low), abs(high)) >= SHIFT_DB:
-                values = {
-                    "source": src.name,
-                    "step_m": DISPLACEMENT_M,
-                    "low_db": low,
-                    "high_db": high,
-                    "share": float(source_shares(results[k], src.name) or 0.0),
-                }
+            if max(abs(low), abs(high)) < SHIFT_DB:
+                continue
+            values = {
+                "source": src.name,
+                "step_m": DISPLACEMENT_M,
+                "low_db": low,
+                "high_db": high,
+                "share": float(source_shares(results[k], src.name) or 0.0),
+            }
+            sw = switched_state(antennas[k])
+            if sw is None:
                 out.append(Notice("source-position", antennas[k].name, values))
+            else:
+                groups.setdefault(sw.group, []).append({**values, "state": sw.state})
+        for group, states in groups.items():
+            worst = max(states, key=lambda v: max(abs(v["low_db"]), abs(v["high_db"])))
+            out.append(Notice("source-position", group, {**worst, "states": len(states)}))
     return out
 
 

@@ -141,8 +141,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "elements wider"
         )
     if n.code == "source-position":
+        which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         return (
-            f"{n.antenna}: its SNR gain rests on exactly where {v['source']!r} stands: moved "
+            f"{n.antenna}{which}: its SNR gain rests on exactly where {v['source']!r} stands: moved "
             f"{length_text(v['step_m'], unit, 0)} north, east, south or west, the gain changes by "
             f"{signed_text(v['low_db'])} to {signed_text(v['high_db'])} dB (that source is "
             f"{100 * v['share']:.0f} % of its noise where it stands now). Place the source where it radiates from "
