@@ -155,11 +155,13 @@ COMPOSERS = {
     "snrgain/model/steering.py",
     "snrgain/model/spread.py",
     "snrgain/decide/decisions.py",
+    "snrgain/decide/source_place.py",
     "snrgain/decide/bandplan.py",
     "snrgain/sky/noiseday.py",
 }
-"""The stage modules the pipeline is made of (bandplan: the plan across the bands of evaluate_bands); noiseday
-builds the sky alone for `snrgain noise` (no antennas)."""
+"""The stage modules the pipeline is made of (bandplan: the plan across the bands of evaluate_bands; source_place:
+the decide stage's notice on a placed source's place, the products' pickup of it moved); noiseday builds the sky
+alone for `snrgain noise` (no antennas)."""
 
 
 def test_only_the_pipeline_composes_the_stages():

@@ -13,6 +13,14 @@ from tests.conftest import REPO
 F = 1.83e6
 
 
+def _site_with(candidate: str, tmp_path):
+    """The tests' Sedge Bank site (tests/data/sites/sedge-bank-160.toml) with one more candidate table, written to a
+    file: its path."""
+    path = tmp_path / "site.toml"
+    path.write_text((REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text() + candidate)
+    return path
+
+
 def _square(side_m: float, auto_for: str = "rdf", **extra):
     return from_spec(
         {
@@ -103,14 +111,12 @@ def test_rank_says_it_for_a_small_square_on_a_site(tmp_path):
     from snrgain.cli.main import cli
     from snrgain.scenario import load
 
-    site = (REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
-    site += (
+    path = _site_with(
         '\n[[candidate]]\nname = "small square"\nfamily = "phased-verticals"\n'
         'positions = [["90 m", "40 m"], ["110 m", "40 m"], ["90 m", "60 m"], ["110 m", "60 m"]]\n'
-        'height = "6 m"\nground_loss = "30 ohm"\nbearing = 290\n'
+        'height = "6 m"\nground_loss = "30 ohm"\nbearing = 290\n',
+        tmp_path,
     )
-    path = tmp_path / "site.toml"
-    path.write_text(site)
     r = snrgain.evaluate(load(path))
     said = [n for n in r.notices if n.code == "phasing-tolerance"]
     assert [n.antenna for n in said] == ["small square"]  # not the quarter-wave-spaced pair of the same file
@@ -129,14 +135,12 @@ def test_a_switched_square_is_named_once(tmp_path):
     import snrgain
     from snrgain.scenario import load
 
-    site = (REPO / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
-    site += (
+    path = _site_with(
         '\n[[candidate]]\nname = "small square"\nfamily = "phased-verticals"\n'
         'positions = [["90 m", "40 m"], ["110 m", "40 m"], ["90 m", "60 m"], ["110 m", "60 m"]]\n'
-        'height = "6 m"\nground_loss = "30 ohm"\ndirections = ["45 deg", "135 deg", "225 deg", "315 deg"]\n'
+        'height = "6 m"\nground_loss = "30 ohm"\ndirections = ["45 deg", "135 deg", "225 deg", "315 deg"]\n',
+        tmp_path,
     )
-    path = tmp_path / "site.toml"
-    path.write_text(site)
     sc = load(path)
     r = snrgain.evaluate(sc)
     said = [n for n in r.notices if n.code == "phasing-tolerance"]
@@ -146,3 +150,59 @@ def test_a_switched_square_is_named_once(tmp_path):
     assert notice_text(said[0]).startswith(f"small square (in 4 of its states; {v['state']} shown): its phasing")
     states = {a.name: tol.tolerance(a, sc.freq_hz) for a in load(path).candidates if a.name.startswith("small")}
     assert len(states) == 4
+
+
+def test_given_delays_are_turned_too_and_read_toward_the_main_lobe():
+    """An array with the same delays written out (steering "given", no bearing: it points where its delays point)
+    draws the same figures as the auto-steered one, read toward its main lobe; a copy holding other weights uses
+    them (Array.weights_at: held weights win whatever the steering)."""
+    auto = _square(10.0)
+    delays = auto.effective_delays_s(F)
+    given = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [10, 0], [0, 10], [10, 10]],
+            "height": "6 m",
+            "ground": "moist loam",
+            "steering": "given",
+            "delays": [f"{t * 1e9:.6f} ns" for t in delays],
+        }
+    )
+    assert np.degrees(tol.front_of(given, F)[0]) == pytest.approx(45.0, abs=1.0)
+    a, g = tol.tolerance(auto, F), tol.tolerance(given, F)
+    assert g["rdf_db"] == pytest.approx(a["rdf_db"], abs=0.05)
+    assert g["rdf_drawn_db"] == pytest.approx(a["rdf_drawn_db"], abs=0.1)
+    assert tol.asks_for_precision(g)
+    w = given.weights_at(F) * np.exp(-1j * np.array([0.0, 0.3, 0.0, 0.0]))
+    az, el = np.radians([225.0]), np.radians([20.0])
+    assert given.with_weights(F, w, "test").gain_linear(F, az, el)[0] != given.gain_linear(F, az, el)[0]
+
+
+def test_an_array_beside_the_vertical_keeps_its_scatterers_under_turned_weights(tmp_path):
+    """An array 20-40 m from the transmitting vertical: its figures with its own weights handed back as 'turned'
+    are its figures (the vertical's re-radiation worked again for the weights, not left at the old ones)."""
+    from snrgain.model import pipeline
+    from snrgain.scenario import load
+
+    path = _site_with(
+        '\n[[candidate]]\nname = "near square"\nfamily = "phased-verticals"\n'
+        'positions = [["20 m", "20 m"], ["40 m", "20 m"], ["20 m", "40 m"], ["40 m", "40 m"]]\n'
+        'height = "6 m"\nground_loss = "30 ohm"\nbearing = 45\n',
+        tmp_path,
+    )
+    seen = {}
+    real = pipeline.decide
+
+    def spy(sc, skies, antennas, cuts):
+        seen["sc"] = sc
+        return real(sc, skies, antennas, cuts)
+
+    pipeline.decide = spy
+    try:
+        pipeline.evaluate(load(path))
+    finally:
+        pipeline.decide = real
+    ant = next(a for a in seen["sc"].candidates if a.name == "near square")
+    assert getattr(ant, "scatterers", None), "the square should stand beside the vertical"
+    own = tol.figures(ant, F)
+    assert tol.figures(ant, F, ant.weights_at(F)) == pytest.approx(own, abs=1e-6)

@@ -17,7 +17,7 @@ NEAR = BASE[: BASE.index("[[candidate]]")] + (
 )  # the barn light stands at (60, -60) m: 18 m behind the flag
 
 
-def _decided(text, tmp_path):
+def _decided(text, tmp_path, name="site.toml"):
     """(the scenario as the pipeline decides on it, its per-antenna results, the results)."""
     from snrgain.model import pipeline
     from snrgain.scenario import load
@@ -29,7 +29,7 @@ def _decided(text, tmp_path):
         seen.update(sc=sc, antennas=antennas)
         return real(sc, skies, antennas, cuts)
 
-    path = tmp_path / "site.toml"
+    path = tmp_path / name
     path.write_text(text)
     pipeline.decide = spy
     try:
@@ -91,3 +91,59 @@ def test_a_switched_flag_is_named_once(tmp_path):
     assert [n.antenna for n in said] == ["flag north"]
     assert said[0].values["states"] == 2 and said[0].values["state"].endswith("deg)")
     assert notice_text(said[0]).startswith(f"flag north (in 2 of its states; {said[0].values['state']} shown)")
+
+
+FIXED = NEAR.replace(
+    'bearing = 0\nposition = ["60 m", "-42 m"]', 'bearing = 0\ntermination = "359 ohm"\nposition = ["60 m", "-42 m"]'
+)
+"""The flag with its resistor given: a re-run with the source moved then changes nothing but the source's place."""
+
+
+@pytest.mark.parametrize(
+    "case, edit",
+    [
+        ("a level read on the reference", lambda t: t),
+        (
+            "an Fa measured 30 m off",
+            lambda t: t.replace('level = "S6"', 'fa = "60 dB"\nmeasured_at = ["60 m", "-30 m"]'),
+        ),
+        (
+            "a receiver near the noise",
+            lambda t: t.replace("[[target]]", '[receiver]\nnoise_floor = "-108 dBm"\n\n[[target]]', 1),
+        ),
+    ],
+)
+def test_the_shift_is_what_a_run_with_the_source_moved_gives(case, edit, tmp_path):
+    """Against the pipeline itself: the scenario run again with the source written 5 m north and 5 m south, each
+    candidate's nominal SNR gain toward the first target moves as shifts_db says (within 0.5 dB: the shares are
+    medians over the hours), the level anchored as written (read on the reference; an Fa where it was measured)
+    and the receiving chain's floor counted."""
+    text = edit(FIXED)
+    sc, results, r = _decided(text, tmp_path)
+    src = next(s for s in sc.noise.local if s.position_m is not None)
+    shifts = sp.shifts_db(sc, list(sc.antennas), results, src)
+    before = {a.name: float(a.snr_gain_nominal_db[0]) for a in r.antennas}
+    for i, north in ((0, -55), (2, -65)):  # north and south of (60, -60)
+        moved = text.replace('position = ["60 m", "-60 m"]', f'position = ["60 m", "{north} m"]')
+        assert moved != text
+        _, _, r1 = _decided(moved, tmp_path, name=f"moved{i}.toml")
+        for k, a in enumerate(r1.antennas):
+            real = float(a.snr_gain_nominal_db[0]) - before[a.name]
+            assert shifts[i, k] == pytest.approx(real, abs=0.5), (case, a.name, i)
+    assert abs(shifts[0, 1]) > 3.0  # the flag moves, so the comparison means something
+
+
+def test_a_move_onto_an_antenna_is_left_out(tmp_path):
+    """A whip 4.5 m north of the source: the move 5 m north would put the source 0.5 m from it, within the input's
+    least distance (1 m), so it is left out, and the warning names the moves it took."""
+    whip = '\n[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\nposition = ["60 m", "-55.5 m"]\n'
+    sc, results, r = _decided(NEAR + whip, tmp_path)
+    src = next(s for s in sc.noise.local if s.position_m is not None)
+    assert [i for i, _ in sp.moves(sc, list(sc.antennas), src)] == [1, 2, 3]
+    shifts = sp.shifts_db(sc, list(sc.antennas), results, src)
+    assert np.all(np.isnan(shifts[0])) and np.all(np.isfinite(shifts[1:]))
+    said = [n for n in r.notices if n.code == "source-position"]
+    assert said  # the whip 4.5 m off, and the flag, move
+    for n in said:
+        assert n.values["directions"] == ["east", "south", "west"]
+        assert "moved 5 m east, south or west" in notice_text(n)

@@ -270,8 +270,13 @@ class Array(Antenna):
         return np.array([a * np.exp(-1j * (omega * t + p)) for t, p, a in self.weights])
 
     def weights_at(self, freq_hz: float) -> np.ndarray:
-        """The complex weights used at ``freq_hz``: optimised once per frequency for auto steering."""
+        """The complex weights used at ``freq_hz``: those held for it (:meth:`set_weights`, whatever the steering:
+        a copy with its weights turned, snrgain.decide.tolerance), else optimised once per frequency for auto
+        steering, else as given."""
         self._last_freq = float(freq_hz)
+        held = self._steered.get(freq_hz)
+        if held is not None:
+            return held
         if not self.optimised:
             return self.static_weights(freq_hz)
         if freq_hz not in self._steered:

@@ -8,8 +8,10 @@ wiring, a fence line or a neighbour's supply radiates from metres of conductor, 
 source is moved DISPLACEMENT_M north, east, south and west, every antenna's pickup of it worked again
 (:func:`snrgain.model.placed.pickup`, the products' own), the level kept where it is anchored (read on the antenna
 named by ``read_on``, the reference by default, or its Fa where it was measured), and each candidate's noise changed
-by its share of that source (medians over the hours, as at the receiver input).  The SNR gain moves by the
-reference's change less the candidate's (the signal stays).  A candidate whose SNR gain moves by SHIFT_DB or more
+by its share of that source (medians over the hours, as at the receiver input, the receiving chain's own floor
+counted), its resistor and phasing kept as chosen for the written place.  The SNR gain moves by the reference's
+change less the candidate's (the signal stays).  A move that would bring the source within the input's least
+distance of an antenna (1 m) is left out.  A candidate whose SNR gain moves by SHIFT_DB or more
 at some displacement is named (snrgain's threshold: half a S-unit).
 """
 
@@ -25,6 +27,7 @@ DISPLACEMENT_M = 5.0
 SHIFT_DB = 3.0
 DIRECTIONS = ((0.0, 1.0), (1.0, 0.0), (0.0, -1.0), (-1.0, 0.0))
 """North, east, south and west, as unit steps [east, north]."""
+DIRECTION_NAMES = ("north", "east", "south", "west")
 
 
 def _median_watts(values_dbm) -> float:
@@ -35,31 +38,48 @@ def _median_watts(values_dbm) -> float:
 
 
 def source_shares(result, source: str) -> float | None:
-    """The share of ``source`` in an antenna's noise at the receiver input (median powers over the hours), or None
-    where the antenna's noise does not list it."""
+    """The share of ``source`` in what sets an antenna's SNR at the receiver input: its noise (median powers over the
+    hours) and the receiving chain's own floor; None where the antenna's noise does not list the source."""
     comps = result.noise_by_component_dbm or {}
     if comps.get(source) is None:
         return None
     watts = {k: _median_watts(v) for k, v in comps.items() if v is not None}
-    total = sum(watts.values())
+    floor = (result.chain or {}).get("noise_floor_dbm")
+    total = sum(watts.values()) + (10 ** (floor / 10) if floor is not None and np.isfinite(floor) else 0.0)
     return watts[source] / total if total > 0 else None
+
+
+def moves(sc, antennas: list, src, step_m: float = DISPLACEMENT_M) -> list[tuple[int, tuple[float, float]]]:
+    """(index into DIRECTIONS, the moved position) of each move of ``src`` by ``step_m`` that keeps it the input's
+    least distance from every antenna (snrgain.scenario.MIN_SOURCE_GAP_M: the field model needs a distance)."""
+    from snrgain.scenario.local import MIN_SOURCE_GAP_M, source_gap_m
+
+    ref_m = antennas[0].params.position or (0.0, 0.0)
+    out = []
+    for i, (de, dn) in enumerate(DIRECTIONS):
+        p = (src.position_m[0] + de * step_m, src.position_m[1] + dn * step_m)
+        if all(a.composite or source_gap_m(p, src.height_m, a, ref_m) >= MIN_SOURCE_GAP_M for a in antennas):
+            out.append((i, p))
+    return out
 
 
 def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
     """The change of each antenna's SNR gain [dB] with ``src`` moved ``step_m`` along each of DIRECTIONS: shape
-    (directions, antennas), the reference's column 0 (its gain over itself stays 0)."""
+    (directions, antennas), the reference's column 0 (its gain over itself stays 0); NaN for a move :func:`moves`
+    leaves out.  The source's level stays where it is anchored: a level read on an antenna (``read_on``, the
+    reference by default) stays read there; an Fa stays the Fa where it was measured (pickup's shares carry it)."""
     from snrgain.model.placed import pickup
 
     names = [a.name for a in antennas]
-    anchor = names.index(src.read_on) if src.level_dbm is not None and src.read_on in names else 0
+    anchor = (names.index(src.read_on) if src.read_on in names else 0) if src.level_dbm is not None else None
     base, _ = pickup(_with_source(sc, src), antennas)
     share = np.array([source_shares(r, src.name) or 0.0 for r in results])
-    out = np.zeros((len(DIRECTIONS), len(antennas)))
-    for i, (de, dn) in enumerate(DIRECTIONS):
-        moved = replace(src, position_m=(src.position_m[0] + de * step_m, src.position_m[1] + dn * step_m))
+    out = np.full((len(DIRECTIONS), len(antennas)), np.nan)
+    for i, p in moves(sc, antennas, src, step_m):
+        moved = replace(src, position_m=p)
         got, _ = pickup(_with_source(sc, moved), antennas)
         s0, s1 = base[src.name], got[moved.name]
-        ratio = (s1 / s1[anchor]) / (s0 / s0[anchor])  # the source's power in each antenna, its level anchored
+        ratio = s1 / s0 if anchor is None else (s1 / s1[anchor]) / (s0 / s0[anchor])
         noise_db = 10 * np.log10(np.maximum(1.0 + share * (ratio - 1.0), 1e-30))
         out[i] = noise_db[0] - noise_db
     return out
@@ -71,10 +91,11 @@ def _with_source(sc, src):
 
 
 def source_position_notices(sc, results: list) -> list[Notice]:
-    """``source-position`` (source, step_m, low_db, high_db, share) for each candidate whose SNR gain moves by
-    SHIFT_DB or more when a placed source moves DISPLACEMENT_M (module docstring): low and high the least and most
-    of its changes over the four displacements, share the source's share of its noise where it stands; a switched
-    antenna once, by the state that moves most (``state``, and ``states`` how many of them move that much)."""
+    """``source-position`` (source, step_m, directions, low_db, high_db, share) for each candidate whose SNR gain
+    moves by SHIFT_DB or more when a placed source moves DISPLACEMENT_M (module docstring): directions the moves
+    taken (:func:`moves`), low and high the least and most of its changes over them, share the source's share of
+    its noise where it stands; a switched antenna once, by the state that moves most (``state``, and ``states`` how
+    many of them move that much)."""
     placed = [s for s in sc.noise.local if s.position_m is not None]
     if not placed:
         return []
@@ -89,13 +110,17 @@ def source_position_notices(sc, results: list) -> list[Notice]:
     for src in placed:
         shifts = shifts_db(sc, antennas, results, src)
         groups: dict[str, list] = {}  # a switched antenna's states: one notice, by the state that moves most
+        taken = [DIRECTION_NAMES[i] for i in range(len(DIRECTIONS)) if np.isfinite(shifts[i, 0])]
+        if not taken:
+            continue
         for k in range(1, len(antennas)):
-            low, high = float(shifts[:, k].min()), float(shifts[:, k].max())
+            low, high = float(np.nanmin(shifts[:, k])), float(np.nanmax(shifts[:, k]))
             if max(abs(low), abs(high)) < SHIFT_DB:
                 continue
             values = {
                 "source": src.name,
                 "step_m": DISPLACEMENT_M,
+                "directions": taken,
                 "low_db": low,
                 "high_db": high,
                 "share": float(source_shares(results[k], src.name) or 0.0),
@@ -111,4 +136,4 @@ def source_position_notices(sc, results: list) -> list[Notice]:
     return out
 
 
-__all__ = ["shifts_db", "source_position_notices", "source_shares"]
+__all__ = ["moves", "shifts_db", "source_position_notices", "source_shares"]

@@ -6,9 +6,13 @@ and small errors in the delays undo it.  The sensitivity of such arrays to rando
 and S. P. Morgan, "Optimum design of directive antenna arrays subject to random variations", Bell System Technical
 Journal 34, 1955, cited from memory); here it is measured on the array itself, as built:
 
-- each phasing line is cut by a velocity factor VELOCITY_FACTOR_ERROR off (one error for all of them: the lines come
-  from one reel; the spread between cables sold as one type is a few percent, common practice), and each line's own
-  length is off by LENGTH_ERROR_M of cable (cutting and connectors);
+- the figures are read toward the array's bearing at its aiming elevation where auto steering aimed it there, else
+  (given weights, or weights set for SNR toward a target) toward its main lobe at that elevation;
+- each phasing line is cut by a velocity factor VELOCITY_FACTOR_ERROR off (1 sigma; one error for all of them: the
+  lines come from one reel; the spread between cables sold as one type is a few percent, common practice), and
+  each line's own length is off by LENGTH_ERROR_M of cable (cutting and connectors; 1 sigma); a phase given in
+  degrees is taken as a line's delay too (a phase-reversing transformer instead has no such error: the figures
+  then err on the cautious side);
 - the array's delays (:meth:`snrgain.antennas.array.Array.effective_delays_s`) move by those errors in DRAWS random
   draws (normal, a fixed seed: the same numbers every run), and its RDF and front-to-back toward its bearing at its
   aiming elevation are worked for each (the RDF over the HEALPix hemisphere of NSIDE);
@@ -55,13 +59,30 @@ def line_errors_s(delays_s: np.ndarray, draws: int = DRAWS, seed: int = 0) -> np
     return scale * np.asarray(delays_s)[None, :] + own
 
 
-def figures(antenna, freq_hz: float, weights=None) -> tuple[float, float]:
-    """(RDF [dB], front-to-back [dB]) of a phased array toward its bearing at its aiming elevation, with ``weights``
-    in place of its own (None: its own)."""
-    ant = antenna if weights is None else antenna.with_weights(freq_hz, weights, "phasing tolerance")
-    grid = upper_hemisphere(NSIDE)
-    b = float(antenna.params.bearing)
+def front_of(antenna, freq_hz: float) -> tuple[float, float]:
+    """(bearing, elevation) [rad] an array's figures are read toward: its ``bearing`` at its aiming elevation where
+    auto steering aimed it there (RDF, front-to-back, end-fire); else (given weights, or weights set for the SNR
+    toward the target nearest the bearing) its main lobe at that elevation, 1 deg steps."""
     el = float(antenna.params.auto_elevation)
+    if antenna.params.steering == "auto" and antenna.auto_for != "snr":
+        return float(antenna.params.bearing), el
+    az = np.radians(np.arange(0.0, 360.0, 1.0))
+    return float(az[int(np.argmax(antenna.gain_linear(freq_hz, az, np.full(az.shape, el))))]), el
+
+
+def figures(antenna, freq_hz: float, weights=None, front=None) -> tuple[float, float]:
+    """(RDF [dB], front-to-back [dB]) of a phased array toward ``front`` ((bearing, elevation) [rad]; default
+    :func:`front_of`), with ``weights`` in place of its own (None: its own).  An array beside the transmitting
+    vertical or a structure has its weights turned on the array itself and the scatterers' re-radiation worked
+    again for them (snrgain.model.scatter.beside)."""
+    from snrgain.model.scatter import bare, beside
+
+    ant = antenna
+    if weights is not None:
+        turned = bare(antenna).with_weights(freq_hz, weights, "phasing tolerance")
+        ant = turned if bare(antenna) is antenna else beside(turned, antenna.scatterers)
+    grid = upper_hemisphere(NSIDE)
+    b, el = front_of(antenna, freq_hz) if front is None else front
     az = np.concatenate([grid.azimuth_rad, [b, b + np.pi]])
     els = np.concatenate([grid.elevation_rad, [el, el]])
     g = ant.gain_linear(freq_hz, az, els)
@@ -88,17 +109,19 @@ def tolerance(antenna, freq_hz: float) -> dict | None:
         return None
     w0 = antenna.weights_at(freq_hz)
     delays = antenna.effective_delays_s(freq_hz)
-    rdf0, fb0 = figures(antenna, freq_hz)
+    front = front_of(antenna, freq_hz)
+    rdf0, fb0 = figures(antenna, freq_hz, front=front)
     errors = line_errors_s(delays)
     omega = 2 * np.pi * freq_hz
-    drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e)) for e in errors])
+    drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e), front) for e in errors])
     rdf_q = _quantiles(drawn[:, 0])
     fb_q = _quantiles(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB))
     longest = float(np.max(delays))
     sigma = float(np.hypot(VELOCITY_FACTOR_ERROR * longest, LENGTH_ERROR_M / (CUT_VELOCITY_FACTOR * C_M_PER_S)))
     return {
-        "bearing_deg": float(np.degrees(antenna.params.bearing)) % 360.0,
-        "elevation_deg": float(np.degrees(antenna.params.auto_elevation)),
+        "bearing_deg": float(np.degrees(front[0])) % 360.0,
+        "elevation_deg": float(np.degrees(front[1])),
+        "freq_hz": float(freq_hz),
         "rdf_db": rdf0,
         "front_to_back_db": min(fb0, FRONT_TO_BACK_CAP_DB),
         "rdf_drawn_db": [float(x) for x in rdf_q],
@@ -138,8 +161,14 @@ def phasing_tolerance_notices(sc) -> list[Notice]:
             out.append(Notice("phasing-tolerance", ant.name, t))
         else:
             groups.setdefault(sw.group, []).append((sw.state, t))
-    for group, states in groups.items():
-        state, t = max(states, key=lambda st: st[1]["rdf_db"] - st[1]["rdf_drawn_db"][0])
+    for group, states in groups.items():  # the state losing most RDF; of equal RDF, most front-to-back
+        state, t = max(
+            states,
+            key=lambda st: (
+                round(st[1]["rdf_db"] - st[1]["rdf_drawn_db"][0], 2),
+                st[1]["front_to_back_db"] - st[1]["front_to_back_drawn_db"][0],
+            ),
+        )
         out.append(Notice("phasing-tolerance", group, {**t, "state": state, "states": len(states)}))
     return out
 

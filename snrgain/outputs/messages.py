@@ -37,6 +37,17 @@ _DETUNE_CAUTION = (
 )
 
 
+def _either(words) -> str:
+    """ "north, east or south"."""
+    words = list(words)
+    return words[0] if len(words) == 1 else f"{', '.join(words[:-1])} or {words[-1]}"
+
+
+def _ns_text(x: float) -> str:
+    """A small figure to two significant digits at most (0.39, 4.1, 10)."""
+    return f"{x:.2g}" if x < 10 else f"{x:.0f}"
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
@@ -129,9 +140,11 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         cap = "over " if v["front_to_back_db"] >= 40.0 else ""
         which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         return (
-            f"{n.antenna}{which}: its phasing asks for precision: with the lines cut by a velocity factor "
-            f"{100 * v['velocity_factor_error']:.0f} % off and each line {length_text(v['length_error_m'], unit, 1)} "
-            f"off (the longest, {v['longest_delay_ns']:.0f} ns, then off by about {v['longest_error_ns']:.0f} ns), "
+            f"{n.antenna}{which}: its phasing asks for precision: with the lines cut by a velocity factor typically "
+            f"{100 * v['velocity_factor_error']:.0f} % off and each line typically "
+            f"{length_text(v['length_error_m'], unit, 1)} off (one standard deviation; the longest line, "
+            f"{v['longest_delay_ns']:.0f} ns, then off by about {_ns_text(v['longest_error_ns'])} ns, "
+            f"{_ns_text(v['longest_error_ns'] * 1e-9 * v['freq_hz'] * 360.0)} deg at the operating frequency), "
             f"its RDF toward {v['bearing_deg']:.0f} deg at {v['elevation_deg']:.0f} deg elevation, {v['rdf_db']:.1f} "
             f"dB, becomes {rdf[0]:.1f} to {rdf[2]:.1f} dB (median {rdf[1]:.1f}) and its "
             f"front-to-back of {cap}{v['front_to_back_db']:.0f} dB becomes {fb[0]:.0f} to {fb[2]:.0f} dB (median "
@@ -144,7 +157,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         return (
             f"{n.antenna}{which}: its SNR gain rests on exactly where {v['source']!r} stands: moved "
-            f"{length_text(v['step_m'], unit, 0)} north, east, south or west, the gain changes by "
+            f"{length_text(v['step_m'], unit, 0)} {_either(v.get('directions', ['north', 'east', 'south', 'west']))}"
+            ", with this antenna's resistor and phasing as chosen now, the gain changes by "
             f"{signed_text(v['low_db'])} to {signed_text(v['high_db'])} dB (that source is "
             f"{100 * v['share']:.0f} % of its noise where it stands now). Place the source where it radiates from "
             "(its wiring, not the building's middle), or take this antenna's figure as that uncertain"

@@ -101,6 +101,19 @@ def gap_m(point: np.ndarray, shape: np.ndarray) -> float:
     return float(np.hypot(*(point - (a + t * ab))))
 
 
+def source_gap_m(point, height_m: float, antenna, reference_m) -> float:
+    """How far a source at ``point`` [m east, m north] and ``height_m`` stands from an antenna's feed point, wire or
+    elements [m]: on the plan, and along a wire the distance in space."""
+    point = np.asarray(point, dtype=float)
+    gaps = []
+    for shape in antenna_outline(antenna, reference_m):
+        gap = gap_m(point, shape)
+        if shape.ndim == 2 and hasattr(antenna, "wire_height_m"):
+            gap = float(np.hypot(gap, antenna.wire_height_m() - height_m))
+        gaps.append(gap)
+    return min(gaps)
+
+
 def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSection) -> list[tuple[str, str]]:
     """Every placed source stands at least :data:`MIN_SOURCE_GAP_M` from every antenna (feed point, wire, element):
     the field model needs a distance and the reading a direction."""
@@ -114,13 +127,7 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
         for ant, where in zip(antennas, wheres):
             if ant.composite:
                 continue
-            gaps = []
-            for shape in antenna_outline(ant, ref_m):
-                gap = gap_m(point, shape)
-                if shape.ndim == 2 and hasattr(ant, "wire_height_m"):  # along a wire: the distance in space
-                    gap = float(np.hypot(gap, ant.wire_height_m() - src.height_m))
-                gaps.append(gap)
-            gap = min(gaps)
+            gap = source_gap_m(point, src.height_m, ant, ref_m)
             if gap < MIN_SOURCE_GAP_M:
                 key = "position" if raw.position is not None else "latitude"
                 out.append(
