@@ -49,7 +49,7 @@ import functools
 from typing import Any, Literal
 
 import numpy as np
-from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
+from pydantic import Field, PrivateAttr, ValidationInfo, field_validator, model_validator
 
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, item_label, register
 from snrgain.antennas.geometry import direction_geometry
@@ -88,10 +88,25 @@ class SteeringParams(AntennaParams):
         return self
 
 
+def at_least_two(items: list, what: str) -> list:
+    """``items`` of an array (its elements or their positions), refused below two: one element is no array."""
+    if len(items) < 2:
+        raise ValueError(
+            f"an array needs at least two elements (at most 64); got {len(items)} {what}"
+            f"{'' if len(items) == 1 else 's'} (a single antenna is a candidate of its own family)"
+        )
+    return items
+
+
 class ArrayParams(SteeringParams):
     family: Literal["array"]
-    elements: list[dict[str, Any]] = Field(min_length=1, max_length=64)
+    elements: list[dict[str, Any]] = Field(max_length=64)
     _si: bool = PrivateAttr(default=False)
+
+    @field_validator("elements")
+    @classmethod
+    def _two_or_more(cls, v):
+        return at_least_two(v, "element")
 
     @model_validator(mode="after")
     def _remember_units(self, info: ValidationInfo):
@@ -108,7 +123,7 @@ matched line of ``line_impedance`` from a matched combiner (the currents follow 
 
 class PhasedVerticalsParams(SteeringParams):
     family: Literal["phased-verticals"]
-    positions: list[PlanPoint] = Field(min_length=1, max_length=64)
+    positions: list[PlanPoint] = Field(max_length=64)
     height: quantity("length", ge=0.05, le=60.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     top_loading: quantity("length", ge=0.0, le=60.0) = 0.0
@@ -119,6 +134,11 @@ class PhasedVerticalsParams(SteeringParams):
     line_impedance: quantity("resistance", ge=1.0, le=1000.0) = 75.0
     diameter: quantity("length", ge=1e-4, le=0.5) = 0.025
     """Element diameter [m], for the self reactance of coupled elements (25 mm tubing, common practice)."""
+
+    @field_validator("positions")
+    @classmethod
+    def _two_or_more(cls, v):
+        return at_least_two(v, "position")
 
     @model_validator(mode="after")
     def _lists(self):
