@@ -55,6 +55,7 @@ from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, b
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import SI_CONTEXT, Bearing, Elevation, GroundField, PlanPoint, quantity
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.problems import toml_repr
 from snrgain.units import parse_quantity
 
 WEIGHT_KEYS = ("delay", "delay_line", "phase", "amplitude")
@@ -175,9 +176,9 @@ def _si_or_parse(value, dimension: str, si: bool) -> float:
 
 def _number(value, what: str, where: str, lo: float, hi: float) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value):
-        raise ValueError(f"{where}.{what} must be a number; got {value!r}")
+        raise ValueError(f"{where}.{what} must be a number; got {toml_repr(value)}")
     if not lo <= value <= hi:
-        raise ValueError(f"{where}.{what} must lie between {lo:g} and {hi:g}; got {value!r}")
+        raise ValueError(f"{where}.{what} must lie between {lo:g} and {hi:g}; got {toml_repr(value)}")
     return float(value)
 
 
@@ -187,7 +188,7 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
     if "delay" in entry:
         delay = _si_or_parse(entry["delay"], "time", si)
         if abs(delay) > 1e-3:
-            raise ValueError(f"{where}.delay must lie within 1 ms; got {entry['delay']!r}")
+            raise ValueError(f"{where}.delay must lie within 1 ms; got {toml_repr(entry['delay'])}")
     if "delay_line" in entry:
         dl = entry["delay_line"]
         if not isinstance(dl, dict) or set(dl) - {"length", "velocity_factor"} or "length" not in dl:
@@ -195,7 +196,7 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
         vf = _number(dl.get("velocity_factor", 0.66), "delay_line.velocity_factor", where, 0.05, 1.0)
         length = _si_or_parse(dl["length"], "length", si)
         if not 0 <= length <= 10e3:
-            raise ValueError(f"{where}.delay_line.length must lie between 0 and 10 km; got {dl['length']!r}")
+            raise ValueError(f"{where}.delay_line.length must lie between 0 and 10 km; got {toml_repr(dl['length'])}")
         delay += length / (vf * C_M_PER_S)
     phase = np.radians(_number(entry.get("phase", 0.0), "phase", where, -720.0, 720.0))
     amp = _number(entry.get("amplitude", 1.0), "amplitude", where, 0.0, 100.0)
