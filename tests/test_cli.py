@@ -140,6 +140,33 @@ def test_standard_input_at_a_terminal_is_refused(monkeypatch):
     assert "standard input is a terminal" in str(exc.value.problems)
 
 
+def test_names_that_begin_like_a_formula_are_written_as_text_in_every_csv(runner, tmp_path):
+    # An antenna "=1+2", a reference "-ref" and a target "@SUM(A1)" were written as they are, so a spreadsheet
+    # computed them; behind an apostrophe they read as text.  Numbers (-3.197) stay numbers.
+    import csv
+
+    from tests.conftest import MINIMAL
+
+    text = (
+        MINIMAL.replace('name = "north-east"', 'name = "@SUM(A1)"')
+        .replace('[reference]\nfamily = "vertical"', '[reference]\nname = "-ref"\nfamily = "vertical"')
+        .replace('name = "iso"\nfamily = "isotropic"', 'name = "=1+2"\nfamily = "vertical"\nheight = "5 m"')
+    )
+    src = tmp_path / "s.toml"
+    src.write_text(text, encoding="utf-8")
+    res = runner.invoke(cli, ["rank", str(src), "--format", "csv"])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(res.stdout.splitlines()))
+    assert {r["antenna"] for r in rows} == {"'-ref", "'=1+2"} and {r["target"] for r in rows} == {"'@SUM(A1)"}
+    assert all(float(r["gain_toward_target_dbi"]) < 0 for r in rows)  # negative numbers, no apostrophe
+    out = tmp_path / "sweep.csv"
+    res = runner.invoke(cli, ["sweep", str(src), "--vary", "=1+2: height = 5 m, 6 m", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.read_text(encoding="utf-8").splitlines()))
+    assert "'=1+2: height" in rows[0] and {r["antenna"] for r in rows} == {"'=1+2"}
+    assert {r["target"] for r in rows} == {"'@SUM(A1)"} and float(rows[0]["gain_toward_target_dbi"]) < 0
+
+
 def test_missing_scenario_file_exit_2(runner, tmp_path):
     res = runner.invoke(cli, ["rank", str(tmp_path / "nope.toml")])
     assert res.exit_code == 2

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import csv
 import io
 import json
 
@@ -10,6 +9,7 @@ import numpy as np
 
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
+from snrgain.outputs.csvcells import csv_writer
 from snrgain.units import length_both_text, length_text, lengths_text, number_text, s_units, signed_text
 
 
@@ -29,7 +29,7 @@ def to_csv(results: Results, *, band: str | None = None, header: bool = True) ->
     (a scenario of several bands)."""
     df = results.to_dataframe()
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    w = csv_writer(buf)  # names that begin like a formula are written as text (csvcells)
     if header:
         w.writerow((["band"] if band is not None else []) + CSV_COLUMNS)
     as_text = [

@@ -509,10 +509,10 @@ class _TableWriter:
         if self.columns is None:
             self.columns = list(rows[0])
             if self.fmt == "csv":
-                import csv
+                from snrgain.outputs.csvcells import csv_writer
 
                 self._fh = open(self.path, "w", newline="", encoding="utf-8")  # noqa: SIM115 - closed in close()
-                self._csv = csv.writer(self._fh, lineterminator="\n")
+                self._csv = csv_writer(self._fh)  # names that begin like a formula are written as text
                 self._csv.writerow(self.columns)
         if self.fmt == "csv":
             for r in rows:
