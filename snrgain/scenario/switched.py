@@ -145,30 +145,18 @@ def _split_directions(directions, key: str) -> tuple[list, list[str | None], lis
 def _directions_problem(directions, where: str) -> tuple[list[float] | None, list[str | None], list[tuple[str, str]]]:
     """The bearings of ``directions`` [rad] as written and the states' names (None: unnamed), or the problems (named
     ``<where>.directions``)."""
-    key = f"{where}.directions"
+    key, got = f"{where}.directions", toml_repr(directions)
     if not isinstance(directions, list):
         return (
             None,
             [],
-            [
-                (
-                    key,
-                    f"a list of 2 to {MAX_DIRECTIONS} bearings or named states, e.g. {_EXAMPLE}; "
-                    f"got {toml_repr(directions)}",
-                )
-            ],
+            [(key, f"a list of 2 to {MAX_DIRECTIONS} bearings or named states, e.g. {_EXAMPLE}; got {got}")],
         )
     if not 2 <= len(directions) <= MAX_DIRECTIONS:
         return (
             None,
             [],
-            [
-                (
-                    key,
-                    f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; "
-                    f"got {len(directions)} ({toml_repr(directions)})",
-                )
-            ],
+            [(key, f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; got {len(directions)} ({got})")],
         )
     written, names, problems = _split_directions(directions, key)
     if problems:
