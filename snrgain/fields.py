@@ -28,6 +28,7 @@ from pydantic import (
 
 from snrgain.physics import ground as groundmod
 from snrgain.physics import lines
+from snrgain.problems import toml_repr
 from snrgain.units import DIMENSIONS, parse_attenuation_db_per_100m, parse_db, parse_power_dbm, parse_quantity
 
 SI_CONTEXT = {"si": True}
@@ -66,19 +67,21 @@ def quantity(dimension: str, *, gt=None, ge=None, lt=None, le=None):
         if _si(info) and isinstance(value, (int, float)) and not isinstance(value, bool):
             x = float(value)
             if not np.isfinite(x):
-                raise ValueError(f"expected a finite {dimension}, got {value!r}")
+                raise ValueError(f"expected a finite {dimension}, got {toml_repr(value)}")
         else:
             x = parse_quantity(value, dimension)
         ok = (gt is None or x > gt) and (ge is None or x >= ge) and (lt is None or x < lt) and (le is None or x <= le)
         if not ok:  # the message's bounds written only for a value out of range
             if ge is not None and le is not None and gt is None and lt is None:
-                raise ValueError(f"must be between {_fmt(ge, dimension)} and {_fmt(le, dimension)}; got {value!r}")
+                raise ValueError(
+                    f"must be between {_fmt(ge, dimension)} and {_fmt(le, dimension)}; got {toml_repr(value)}"
+                )
             bounds = [
                 f"{sign} {_fmt(bound, dimension)}"
                 for sign, bound in ((">", gt), (">=", ge), ("<", lt), ("<=", le))
                 if bound is not None
             ]
-            raise ValueError(f"must be {' and '.join(bounds)}; got {value!r}")
+            raise ValueError(f"must be {' and '.join(bounds)}; got {toml_repr(value)}")
         return x
 
     return Annotated[float, BeforeValidator(check)]
@@ -115,10 +118,10 @@ Attenuation = Annotated[float, BeforeValidator(parse_attenuation_db_per_100m)]
 def _degrees_number(lo, hi, what):
     def check(value):
         if isinstance(value, bool) or not isinstance(value, (int, float, str)):
-            raise ValueError(f"expected {what} in degrees, got {value!r}")
+            raise ValueError(f"expected {what} in degrees, got {toml_repr(value)}")
         x = np.degrees(parse_quantity(value, "angle"))
         if not (lo <= x <= hi):
-            raise ValueError(f"must be between {lo:g} and {hi:g} degrees; got {value!r}")
+            raise ValueError(f"must be between {lo:g} and {hi:g} degrees; got {toml_repr(value)}")
         return float(x)
 
     return Annotated[float, BeforeValidator(check)]
@@ -166,8 +169,6 @@ def _connection(value, info: ValidationInfo):
             where = ".".join(str(p) for p in first["loc"])
             raise ValueError(f"{where}: {first['msg'].removeprefix('Value error, ')}") from None
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
-        from snrgain.problems import toml_repr
-
         raise ValueError(f"expected {_CONNECTION_CHOICES}; got {toml_repr(value)}")
     try:
         return _CONNECTION_RESISTANCE(value, info)
@@ -298,14 +299,14 @@ GroundField = Annotated[GroundInput, BeforeValidator(ground_name_check)]
 def lengths(value, n: int, *, what: str, example: str, limit_m: float) -> tuple[float, ...]:
     """n lengths, each written with a unit ("12 m", "40 ft") or as a bare number of metres, within limit_m."""
     if not isinstance(value, (list, tuple)) or len(value) != n:
-        raise ValueError(f"expected {what}, e.g. {example} (bare numbers are metres); got {value!r}")
+        raise ValueError(f"expected {what}, e.g. {example} (bare numbers are metres); got {toml_repr(value)}")
     out = []
     for v in value:
         if isinstance(v, bool):
-            raise ValueError(f"expected a length, got {v!r}")
+            raise ValueError(f"expected a length, got {toml_repr(v)}")
         out.append(float(v) if isinstance(v, (int, float)) else parse_quantity(v, "length"))
     if not all(np.isfinite(out)) or max(abs(x) for x in out) > limit_m:
-        raise ValueError(f"{what} must lie within {limit_m / 1e3:g} km of the origin; got {value!r}")
+        raise ValueError(f"{what} must lie within {limit_m / 1e3:g} km of the origin; got {toml_repr(value)}")
     return tuple(out)
 
 
@@ -328,7 +329,7 @@ def check_name(value):
     """A name as written: text of 1 to MAX_NAME_CHARS characters, not only spaces, without control characters (they
     reach the terminal and the report as they are)."""
     if not isinstance(value, str):
-        raise ValueError(f"a name is text in quotes; got {value!r}")
+        raise ValueError(f"a name is text in quotes; got {toml_repr(value)}")
     if not value.strip():
         raise ValueError("a name needs a letter or a digit, not only spaces")
     if len(value) > MAX_NAME_CHARS:
@@ -341,7 +342,7 @@ def check_name(value):
     # names that print alike are one name to the reader: "Bev" and "Bev " or "Bev<zero-width space>" were two rows
     # of one look in the ranking, "Café" composed and decomposed two more
     if value != value.strip():
-        raise ValueError(f"a name without spaces at its start or end; got {value!r}")
+        raise ValueError(f"a name without spaces at its start or end; got {toml_repr(value)}")
     # the joiners (U+200C, U+200D) belong to some scripts' words and to emoji sequences: between two visible
     # characters they are part of the name; every other format character (zero-width space, direction marks and
     # overrides) is invisible text

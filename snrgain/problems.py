@@ -67,7 +67,15 @@ _KIND = {
 
 
 def toml_repr(value) -> str:
-    """A value as it reads in a TOML file (true, "text", [1, 2]), shortened to about 60 characters."""
+    """A value as it reads in a TOML file (true, "text", [1, 2], 2026-01-05, 07:32:00), shortened to about 60
+    characters: an input value shown in a message as the user wrote it, never as a Python repr.
+
+    >>> import datetime
+    >>> print(toml_repr([datetime.date(2026, 1, 5), "3 m", 2.5, {"x": datetime.time(7, 32)}]))
+    [2026-01-05, "3 m", 2.5, { x = 07:32:00 }]
+    """
+    import datetime
+
     if isinstance(value, bool):
         text = "true" if value else "false"
     elif isinstance(value, str):
@@ -76,8 +84,19 @@ def toml_repr(value) -> str:
         text = "[" + ", ".join(toml_repr(v) for v in value) + "]"
     elif isinstance(value, dict):
         text = "{ " + ", ".join(f"{k} = {toml_repr(v)}" for k, v in value.items()) + " }"
+    elif isinstance(value, datetime.datetime):  # before date: a datetime is a date too
+        text = value.isoformat()
+        text = text.removesuffix("+00:00") + "Z" if value.utcoffset() == datetime.timedelta(0) else text
+    elif isinstance(value, (datetime.date, datetime.time)):
+        text = value.isoformat()
+    elif isinstance(value, float):
+        text = repr(float(value))  # 2.5, 1e+300, inf, nan: as TOML reads them (a numpy float too)
+    elif isinstance(value, int):
+        text = str(value)
+    elif value is None:
+        text = "nothing"
     else:
-        text = repr(value)
+        text = str(value)
     return text if len(text) <= 60 else text[:57] + "..."
 
 

@@ -32,6 +32,8 @@ import unicodedata
 
 import numpy as np
 
+from snrgain.problems import toml_repr
+
 # Dimension name -> (SI unit, example for messages, are bare numbers allowed)
 DIMENSIONS: dict[str, tuple[str, str, bool]] = {
     "length": ("meter", "'40 m' or '130 ft'", False),
@@ -79,7 +81,7 @@ def normalise_text(value: str, what: str = "a number") -> str:
             out.append(str(unicodedata.decimal(ch)))
         elif cat in ("No", "Nl"):
             raise QuantityError(
-                f"cannot read {value!r} as {what}: {ch!r} is not a decimal digit; write plain digits like 12.5"
+                f"cannot read {toml_repr(value)} as {what}: {ch!r} is not a decimal digit; write plain digits like 12.5"
             )
         elif ch in _MINUS_SIGNS:
             out.append("-")
@@ -139,7 +141,7 @@ UNITS: dict[str, dict[str, float]] = {
 
 def _reject_non_text(value, what: str, example: str) -> None:
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
-        raise QuantityError(f"expected {what} such as {example}, got {value!r}")
+        raise QuantityError(f"expected {what} such as {example}, got {toml_repr(value)}")
 
 
 def parse_quantity(value, dimension: str) -> float:
@@ -164,10 +166,12 @@ def parse_quantity(value, dimension: str) -> float:
     if isinstance(value, str):
         m = _QUANTITY.match(normalise_text(value, dimension))
         if m is None:
-            raise QuantityError(f"cannot read {value!r} as {dimension}: write a number and one unit, like {example}")
+            raise QuantityError(
+                f"cannot read {toml_repr(value)} as {dimension}: write a number and one unit, like {example}"
+            )
         number, unit = float(m.group(1)), m.group(2)
         if unit is None and not bare_ok:
-            raise QuantityError(f"{value!r} has no {dimension} unit; write it like {example}")
+            raise QuantityError(f"{toml_repr(value)} has no {dimension} unit; write it like {example}")
         x = number * (_unit_scale(unit, dimension) if unit is not None else _bare_scale(dimension))
     else:
         if not bare_ok:
@@ -176,7 +180,7 @@ def parse_quantity(value, dimension: str) -> float:
             )
         x = float(value) * _bare_scale(dimension)
     if not np.isfinite(x):
-        raise QuantityError(f"expected a finite {dimension}, got {value!r}")
+        raise QuantityError(f"expected a finite {dimension}, got {toml_repr(value)}")
     return float(x)
 
 
@@ -218,14 +222,14 @@ def parse_attenuation_db_per_100m(value) -> float:
     if isinstance(value, str):
         m = _ATTENUATION.match(normalise_text(value, "an attenuation"))
         if m is None:
-            raise QuantityError(f"expected an attenuation such as {example}, got {value!r}")
+            raise QuantityError(f"expected an attenuation such as {example}, got {toml_repr(value)}")
         per = re.sub(r"\s+", "", m.group(2) or "100m").lower()
         x = float(m.group(1)) * _ATTENUATION_SCALE[per]
     else:
         x = float(value)
     lo, hi = ATTENUATION_RANGE_DB_PER_100M
     if not (np.isfinite(x) and lo <= x <= hi):
-        raise QuantityError(f"attenuation must lie between {lo:g} and {hi:g} dB/100 m, got {value!r}")
+        raise QuantityError(f"attenuation must lie between {lo:g} and {hi:g} dB/100 m, got {toml_repr(value)}")
     return x
 
 
@@ -247,7 +251,7 @@ def parse_power_dbm(value) -> float:
     x = _power_dbm(value)
     lo, hi = POWER_RANGE_DBM
     if not (np.isfinite(x) and lo <= x <= hi):
-        raise QuantityError(f"a received power must lie between {lo:g} and {hi:+g} dBm; got {value!r}")
+        raise QuantityError(f"a received power must lie between {lo:g} and {hi:+g} dBm; got {toml_repr(value)}")
     return x
 
 
@@ -262,11 +266,11 @@ def _power_dbm(value) -> float:
             units = int(m.group(1))
             over = float(m.group(2)) if m.group(2) else 0.0
             if units < 1:
-                raise QuantityError(f"S-units run from S1 to S9 (then S9+N dB); got {value!r}")
+                raise QuantityError(f"S-units run from S1 to S9 (then S9+N dB); got {toml_repr(value)}")
             if over and units != 9:
-                raise QuantityError(f"only S9 takes '+N dB'; got {value!r}")
+                raise QuantityError(f"only S9 takes '+N dB'; got {toml_repr(value)}")
             return S9_DBM - DB_PER_S_UNIT * (9 - units) + over
-    raise QuantityError(f"expected a power such as '-95 dBm', 'S7' or 'S9+10', got {value!r}")
+    raise QuantityError(f"expected a power such as '-95 dBm', 'S7' or 'S9+10', got {toml_repr(value)}")
 
 
 def s_units(power_dbm) -> str:
@@ -284,7 +288,7 @@ def s_units(power_dbm) -> str:
 def parse_db(value) -> float:
     """A ratio in dB: "12 dB" or a bare number."""
     if isinstance(value, bool):
-        raise QuantityError(f"expected a value in dB such as '12 dB', got {value!r}")
+        raise QuantityError(f"expected a value in dB such as '12 dB', got {toml_repr(value)}")
     x = None
     if isinstance(value, (int, float)):
         x = float(value)
@@ -296,9 +300,9 @@ def parse_db(value) -> float:
         elif re.fullmatch(r"\s*" + _NUMBER + r"\s*", value):
             x = float(value)
     if x is None:
-        raise QuantityError(f"expected a value in dB such as '12 dB', got {value!r}")
+        raise QuantityError(f"expected a value in dB such as '12 dB', got {toml_repr(value)}")
     if not np.isfinite(x):
-        raise QuantityError(f"expected a finite value in dB, got {value!r}")
+        raise QuantityError(f"expected a finite value in dB, got {toml_repr(value)}")
     return x
 
 

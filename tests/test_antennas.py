@@ -137,7 +137,7 @@ def test_spec_errors_name_field_value_and_range():
     with pytest.raises(SpecError) as exc:
         from_spec({"family": "vertical", "height": "-3 ft", "colour": "red"})
     msg = str(exc.value)
-    assert "height" in msg and "'-3 ft'" in msg and "between 0.05 m and 300 m" in msg
+    assert "height" in msg and '"-3 ft"' in msg and "between 0.05 m and 300 m" in msg
     assert "colour: unknown key" in msg
 
 

@@ -167,3 +167,14 @@ def test_the_physics_layer_reaches_no_higher_layer():
         if mod.startswith(higher)
     ]
     assert not found, found
+
+
+def test_every_csv_is_written_through_the_one_safe_writer():
+    # Names that begin like a formula (=, +, -, @) are written as text by snrgain.outputs.csvcells; a CSV written by
+    # csv.writer directly anywhere else would write them as they are.
+    found = [
+        f"{path.relative_to(REPO)}"
+        for path in sorted(PACKAGE.rglob("*.py"))
+        if path.name != "csvcells.py" and ("csv.writer(" in path.read_text() or "DictWriter(" in path.read_text())
+    ]
+    assert not found, found

@@ -96,6 +96,77 @@ def test_check_valid_and_invalid(runner, demo_path, tmp_path):
     assert "band: required key is missing" in res.stderr
 
 
+def test_a_scenario_from_standard_input(runner, demo_path, tmp_path):
+    # "-" reads the scenario from standard input (it said "-: cannot read the file (No such file or directory)")
+    from tests.conftest import MINIMAL, REPO
+
+    res = runner.invoke(cli, ["check", "-"], input=MINIMAL)
+    assert res.exit_code == 0, res.output
+    assert res.stdout.startswith("<standard input>: valid") and "candidate: iso (isotropic)" in res.stdout
+    res = runner.invoke(cli, ["rank", "-", "--format", "json"], input=MINIMAL)
+    assert res.exit_code == 0 and json.loads(res.stdout)["targets"][0]["ranking"]
+    # a file of several bands is read once and checked band by band
+    bands = (REPO / "tests" / "data" / "sites" / "three-bands.toml").read_text(encoding="utf-8")
+    res = runner.invoke(cli, ["check", "-"], input=bands)
+    assert res.exit_code == 0 and res.stdout.count("<standard input>: valid") == 3
+    # its problems name standard input; nothing piped is said, as is a copy that needs the file
+    res = runner.invoke(cli, ["check", "-"], input="[site]\nlatitude = 100\n")
+    assert res.exit_code == 2 and "<standard input>: site.latitude" in res.stderr
+    res = runner.invoke(cli, ["check", "-"], input="")
+    assert res.exit_code == 2 and "standard input is empty" in res.stderr
+    readings = tmp_path / "readings.toml"
+    readings.write_text(runner.invoke(cli, ["noise-readings", "--example"]).output, encoding="utf-8")
+    site = (SCENARIOS / "wren-corner.toml").read_text(encoding="utf-8")
+    res = runner.invoke(cli, ["noise-readings", "-", str(readings), "--write", str(tmp_path / "copy.toml")], input=site)
+    assert res.exit_code == 2 and "a scenario copy is made from a file" in res.stderr
+
+
+def test_standard_input_at_a_terminal_is_refused(monkeypatch):
+    # Nothing piped: refused at once rather than waiting for the scenario to be typed.
+    import io
+
+    import pytest
+
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import load
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    monkeypatch.setattr("sys.stdin", Terminal("[site]\n"))
+    with pytest.raises(ScenarioError) as exc:
+        load("-")
+    assert "standard input is a terminal" in str(exc.value.problems)
+
+
+def test_names_that_begin_like_a_formula_are_written_as_text_in_every_csv(runner, tmp_path):
+    # An antenna "=1+2", a reference "-ref" and a target "@SUM(A1)" were written as they are, so a spreadsheet
+    # computed them; behind an apostrophe they read as text.  Numbers (-3.197) stay numbers.
+    import csv
+
+    from tests.conftest import MINIMAL
+
+    text = (
+        MINIMAL.replace('name = "north-east"', 'name = "@SUM(A1)"')
+        .replace('[reference]\nfamily = "vertical"', '[reference]\nname = "-ref"\nfamily = "vertical"')
+        .replace('name = "iso"\nfamily = "isotropic"', 'name = "=1+2"\nfamily = "vertical"\nheight = "5 m"')
+    )
+    src = tmp_path / "s.toml"
+    src.write_text(text, encoding="utf-8")
+    res = runner.invoke(cli, ["rank", str(src), "--format", "csv"])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(res.stdout.splitlines()))
+    assert {r["antenna"] for r in rows} == {"'-ref", "'=1+2"} and {r["target"] for r in rows} == {"'@SUM(A1)"}
+    assert all(float(r["gain_toward_target_dbi"]) < 0 for r in rows)  # negative numbers, no apostrophe
+    out = tmp_path / "sweep.csv"
+    res = runner.invoke(cli, ["sweep", str(src), "--vary", "=1+2: height = 5 m, 6 m", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.read_text(encoding="utf-8").splitlines()))
+    assert "'=1+2: height" in rows[0] and {r["antenna"] for r in rows} == {"'=1+2"}
+    assert {r["target"] for r in rows} == {"'@SUM(A1)"} and float(rows[0]["gain_toward_target_dbi"]) < 0
+
+
 def test_missing_scenario_file_exit_2(runner, tmp_path):
     res = runner.invoke(cli, ["rank", str(tmp_path / "nope.toml")])
     assert res.exit_code == 2

@@ -127,10 +127,12 @@ def test_uniform_linear_array_factor(n, d_wl, beta_deg):
         {"family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "height": "1.5 m", "termination": 900},
     ],
 )
-def test_array_of_one_element_leaves_its_pattern_unchanged(spec):
+def test_array_with_one_element_heard_leaves_its_pattern_unchanged(spec):
+    # An array needs two elements; the second at amplitude 0 adds nothing, so the array is the first's pattern.
     spec = {**spec, "ground": "moist loam"}
     alone = from_spec(spec)
-    arr = from_spec({"family": "array", "elements": [spec]})
+    silent = {**spec, "position": [0, 40], "amplitude": 0}
+    arr = from_spec({"family": "array", "steering": "given", "elements": [spec, silent]})
     np.testing.assert_allclose(
         arr.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad),
         alone.gain_linear(F, GRID.azimuth_rad, GRID.elevation_rad),
@@ -190,18 +192,24 @@ def test_terminated_loop_cardioid_and_figure_eight():
 def test_array_bad_input():
     with pytest.raises(SpecError, match="one family"):
         from_spec({"family": "array", "elements": [{"family": "isotropic"}, {"family": "vertical", "height": "5 m"}]})
+    table = {"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")}
     with pytest.raises(SpecError, match="carries no phase|tabulated"):
-        arr = from_spec(
-            {
-                "family": "array",
-                "elements": [{"family": "tabulated", "file": str(REPO / "scenarios/patterns/cardioid-pair.csv")}],
-            }
-        )
+        arr = from_spec({"family": "array", "elements": [table, {**table, "position": [0, 40]}]})
         arr.gain_linear(F, np.array([0.0]), np.array([0.1]))
     with pytest.raises(SpecError, match="steering = 'auto'"):
-        from_spec({"family": "array", "elements": [{"family": "isotropic", "delay": "10 ns"}]})
+        from_spec({"family": "array", "elements": [{"family": "isotropic", "delay": "10 ns"}, {"family": "isotropic"}]})
     with pytest.raises(SpecError, match="elements 1.height"):
-        from_spec({"family": "array", "elements": [{"family": "vertical", "height": "-5 m"}]})
+        from_spec(
+            {
+                "family": "array",
+                "elements": [{"family": "vertical", "height": "-5 m"}, {"family": "vertical", "height": "5 m"}],
+            }
+        )
+    for one in ({"family": "array", "elements": [{"family": "isotropic"}]}, {"family": "array", "elements": []}):
+        with pytest.raises(SpecError, match=r"elements: an array needs at least two elements \(at most 64\); got"):
+            from_spec(one)
+    with pytest.raises(SpecError, match=r"positions: an array needs at least two elements .*; got 1 position "):
+        from_spec({"family": "phased-verticals", "positions": [[0, 0]], "height": "6 m"})
     with pytest.raises(SpecError, match="delays has 1 entries"):
         from_spec(
             {

@@ -11,10 +11,10 @@ from snrgain.fields import quantity
 @pytest.mark.parametrize(
     ("bounds", "value", "message"),
     [
-        ({"gt": 0.05, "le": 30.0}, "-1 m", "must be > 0.05 m and <= 30 m; got '-1 m'"),
-        ({"ge": 1.0, "le": 3000.0}, "1e5 m", "must be between 1 m and 3000 m; got '1e5 m'"),
-        ({"gt": 0.0}, "0 m", "must be > 0 m; got '0 m'"),
-        ({"ge": 0.0, "lt": 5.0}, "5 m", "must be >= 0 m and < 5 m; got '5 m'"),
+        ({"gt": 0.05, "le": 30.0}, "-1 m", 'must be > 0.05 m and <= 30 m; got "-1 m"'),
+        ({"ge": 1.0, "le": 3000.0}, "1e5 m", 'must be between 1 m and 3000 m; got "1e5 m"'),
+        ({"gt": 0.0}, "0 m", 'must be > 0 m; got "0 m"'),
+        ({"ge": 0.0, "lt": 5.0}, "5 m", 'must be >= 0 m and < 5 m; got "5 m"'),
     ],
 )
 def test_out_of_range_names_the_bounds(bounds, value, message):

@@ -124,6 +124,27 @@ def test_toml_booleans_and_numbers_are_strictly_typed(text, field, words):
     assert field in path and words in msg
 
 
+@pytest.mark.parametrize(
+    "old, new, field, words",
+    [
+        ('height = "20 m"', "height = 2026-01-05", "reference.height", "got 2026-01-05"),
+        ('height = "20 m"', "height = [2026-01-05, 3]", "reference.height", "got [2026-01-05, 3]"),
+        ('name = "test site"', "name = 2026-01-05T10:00:00Z", "site.name", "got 2026-01-05T10:00:00Z"),
+        ("months = [1]", "months = [2026-01-05]", "time.months 1", "expected a whole number; got 2026-01-05"),
+        ("bearing = 45", "bearing = 10:30:00", "bearing", "got 10:30:00"),
+        ('family = "vertical"', "family = 1979-05-27T07:32:00", "reference.family", "family 1979-05-27T07:32:00;"),
+        ('family = "vertical"', 'family = "verticle"', "reference.family", 'unknown antenna family "verticle";'),
+        ('height = "20 m"', 'height = "2,5 m"', "reference.height", 'cannot read "2,5 m" as length'),
+    ],
+)
+def test_a_value_is_shown_as_written_not_as_python_shows_it(old, new, field, words):
+    # TOML dates and times where a number or text belongs said "datetime.date(2026, 1, 5)"; text is in TOML's quotes
+    problems = _problems(MINIMAL.replace(old, new))
+    assert len(problems) == 1
+    path, msg = problems[0]
+    assert field in path and words in msg and "datetime" not in msg, msg
+
+
 def test_a_ground_range_is_still_read_from_a_toml_list():
     text = MINIMAL.replace(
         'ground = "moist loam"', 'ground = { conductivity = ["2 mS/m", "12 mS/m"], permittivity = [8, 20] }'

@@ -50,7 +50,7 @@ CAND = MINIMAL.replace('name = "iso"\nfamily = "isotropic"', "{candidate}")
         (
             CAND.format(
                 candidate='name = "a"\nfamily = "array"\nsteering = "given"\nelements = [{ family = '
-                '"vertical", height = "3 m", phase = [90] }]'
+                '"vertical", height = "3 m", phase = [90] }, { family = "vertical", height = "3 m" }]'
             ),
             "elements 1",
         ),
@@ -77,6 +77,50 @@ CAND = MINIMAL.replace('name = "iso"\nfamily = "isotropic"', "{candidate}")
 def test_each_reported_case_is_a_named_exit_2(tmp_path, text, field):
     res, p = _check(tmp_path, text)
     assert res.exit_code == 2 and field in res.stderr and str(p) in res.stderr
+
+
+@pytest.mark.parametrize(
+    "text, said",
+    [
+        (
+            CAND.format(candidate='name = "pv"\nfamily = "phased-verticals"\npositions = [[0, 0]]\nheight = "5 m"'),
+            'candidate 1 ("pv").positions: an array needs at least two elements (at most 64); got 1 position',
+        ),
+        (
+            CAND.format(
+                candidate='name = "ar"\nfamily = "array"\nelements = [{ family = "vertical", height = "3 m" }]'
+            ),
+            'candidate 1 ("ar").elements: an array needs at least two elements (at most 64); got 1 element',
+        ),
+        (
+            MINIMAL + "\n[noise.man_made]\nsector = { from = 40, to = 40 }\n",
+            "noise.man_made.sector: a sector runs clockwise from 'from' to 'to' and needs a width > 0 and under "
+            "360 deg; got from 40 deg to 40 deg, the same bearing",
+        ),
+        (
+            MINIMAL + "\n[noise.man_made]\nsector = { from = 0, to = 360 }\n",
+            "noise.man_made.sector: a sector runs clockwise from 'from' to 'to' and needs a width > 0 and under "
+            "360 deg; got from 0 deg to 360 deg, a full turn",
+        ),
+        (
+            MINIMAL + '\n[noise.atmospheric]\nmodel = "given"\nfa = 50\narrival = "sector"\n'
+            'sector = { from = "40 deg", to = "40 deg" }\n',
+            "noise.atmospheric.sector: a sector runs clockwise",
+        ),
+    ],
+    ids=["phased-verticals of one", "array of one", "sector of no width", "sector of a full turn", "atmospheric"],
+)
+def test_an_array_of_one_and_a_sector_of_no_width_are_refused(tmp_path, text, said):
+    res, p = _check(tmp_path, text)
+    assert res.exit_code == 2 and said in " ".join(res.stderr.split()), res.stderr
+
+
+def test_a_sector_of_some_width_and_a_pair_pass(tmp_path):
+    text = CAND.format(
+        candidate='name = "pv"\nfamily = "phased-verticals"\npositions = [[0, 0], [0, 40]]\nheight = "5 m"'
+    )
+    res, _ = _check(tmp_path, text + "\n[noise.man_made]\nsector = { from = 350, to = 10 }\n")
+    assert res.exit_code == 0, res.stderr
 
 
 def test_names_are_shown_literally(tmp_path):

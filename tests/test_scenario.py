@@ -55,7 +55,7 @@ def test_error_names_file_field_value_and_range(tmp_path, minimal_text):
     msg = str(err)
     assert "my-site.toml" in msg
     assert "band.frequency" in msg
-    assert "'183 MHz'" in msg
+    assert '"183 MHz"' in msg
     assert "0.1 MHz" in msg and "30 MHz" in msg
 
 

@@ -65,6 +65,19 @@ def test_bad_vary_is_exit_2(tmp_path, vary, says):
     assert vary in res.stderr and says in res.stderr
     assert res.stderr.count(vary) == 1  # the argument said once (a key's check repeated it inside its own message)
     assert not out.exists()
+    # every --vary is checked before anything is printed: it said "sweep: 2 designs" first
+    assert res.stderr.startswith(f"snrgain: --vary {vary!r}") and res.stdout == "", res.stderr
+
+
+def test_the_vary_that_breaks_the_first_design_is_the_one_named(tmp_path):
+    # Two --vary: a good length and an unknown key.  The unknown key was laid on the length ("--vary '... length =
+    # 100 m, 200 m': with '100 m' the scenario is invalid: ... colour: unknown key"), after the header was printed.
+    good, bad = "Beverage toward Europe: length = 100 m, 200 m", "Beverage toward Europe: colour = red"
+    out = tmp_path / "s.csv"
+    res = CliRunner().invoke(cli, ["sweep", str(DEMO), "--vary", good, "--vary", bad, "-o", str(out)])
+    assert res.exit_code == 2, res.output
+    assert res.stderr.startswith(f"snrgain: --vary {bad!r}: with 'red' the scenario is invalid")
+    assert "colour: unknown key" in res.stderr and good not in res.stderr and not out.exists()
 
 
 def test_fast_path_equals_full_runs(monkeypatch):

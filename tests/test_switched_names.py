@@ -89,7 +89,7 @@ def test_names_and_bare_bearings_mix_and_a_wire_takes_names():
         ([{"name": 7, "bearing": 45}, 225], "directions.1.name", "is text"),
         ([{"name": "x" * 25, "bearing": 45}, 225], "directions.1.name", "at most 24 characters"),
         ([{"name": "a\nb", "bearing": 45}, 225], "directions.1.name", "one line"),
-        ([{"name": "front", "bearing": "4x5 deg"}, 225], "directions.1.bearing", "cannot read '4x5 deg'"),
+        ([{"name": "front", "bearing": "4x5 deg"}, 225], "directions.1.bearing", 'cannot read "4x5 deg"'),
         ([{"name": "front", "bearing": 45}, {"name": "b", "bearing": "45.03 deg"}], "directions.2", "same bearing"),
         ("front", "directions", "bearings or named states"),
     ],

@@ -257,3 +257,57 @@ def test_a_fragile_resistor_weighs_what_it_gains(over_db, given_up_db, said):
     from snrgain.decide.decisions import trades_front_to_back
 
     assert trades_front_to_back(over_db, given_up_db) is said
+
+
+@pytest.mark.parametrize(
+    "spec,side,end",
+    [
+        ({"family": "beverage", "length": "1 m", "height": "2 m"}, "low", 30.0),
+        ({"family": "beverage", "length": "200 m", "height": "2 m", "ground": "perfect"}, "high", 5000.0),
+    ],
+    ids=["1 m wire", "over perfect ground"],
+)
+def test_a_resistor_at_an_end_of_the_range_searched_is_said_to_be_that_end(spec, side, end):
+    # A 1 m "Beverage" rates best the lower the resistor (it still gains below the 30 ohm searched); over perfect
+    # ground a 200 m wire the higher (beyond 5000 ohm).  The search's end is what "auto" gives, and every printer
+    # says it is that end of the range, not an optimum ("the resistor of best RDF" with a negative "lost" before).
+    from snrgain.cli.wire import termination_lines
+
+    f = 1.83e6
+    answer = wiredesign.termination_answer(from_spec({**spec, "auto_for": "rdf"}), f)
+    assert answer.best_ohm == pytest.approx(end) and answer.at_bound == side
+    assert answer.search_ohm == pytest.approx((30.0, 5000.0))
+    assert (answer.loss_at_0p7_db if side == "low" else answer.loss_at_1p4_db) < 0  # it does rise beyond
+    assert (answer.loss_at_1p4_db if side == "low" else answer.loss_at_0p7_db) > 0  # and falls inside
+    text = "\n".join(termination_lines(wiredesign.wire_report({**spec, "auto_for": "rdf"}, f)))
+    assert "no optimum of RDF along the wire at 20 deg within the 30-5000 ohm searched" in text
+    assert f"range's {'lower' if side == 'low' else 'upper'} end, {end:.0f} ohm" in text
+    assert "the resistor of best RDF" not in text and "-0." not in text
+    sheet = build_sheet(from_spec({**spec, "auto_for": "rdf"}), f)
+    assert sheet["termination_answer"]["at_search_bound"] == side
+
+
+def test_a_resistor_inside_the_range_is_an_optimum():
+    from snrgain.cli.wire import termination_lines
+
+    spec = {"family": "beverage", "length": "140 m", "height": "2.5 m", "auto_for": "rdf"}
+    answer = wiredesign.termination_answer(from_spec(spec), 1.83e6)
+    assert answer.at_bound is None and 30.0 < answer.best_ohm < 5000.0
+    text = "\n".join(termination_lines(wiredesign.wire_report(spec, 1.83e6)))
+    assert "the resistor of best RDF" in text and "no optimum" not in text
+
+
+@pytest.mark.skipif(not HAVE_P372, reason="needs the ITU-R P.372 coefficient files (SNRGAIN_P372_DIR)")
+def test_rank_build_says_a_resistor_under_the_sky_is_an_end_of_the_range():
+    # The 90 m BOG at 40 m: its SNR gain toward Japan is highest at the lowest resistor tried (the search widened
+    # out to 30 ohm, the range's lower end): the build lines (rank --build, the report) say so.
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    site = REPO / "tests" / "data" / "sites" / "three-bands.toml"
+    res = CliRunner().invoke(cli, ["rank", str(site), "--band", "40 m", "--build", "--p372-dir", str(P372_DIR)])
+    assert res.exit_code == 0, res.output
+    text = " ".join(res.stdout.split())
+    assert "no optimum of SNR gain toward Japan within the 30-" in text
+    assert "end, 30 ohm" in text and "so that end is given, not an optimum" in text

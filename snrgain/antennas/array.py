@@ -50,12 +50,13 @@ from collections import Counter
 from typing import Any, Literal
 
 import numpy as np
-from pydantic import Field, PrivateAttr, ValidationInfo, model_validator
+from pydantic import Field, PrivateAttr, ValidationInfo, field_validator, model_validator
 
 from snrgain.antennas.base import FAMILIES, Antenna, AntennaParams, SpecError, build, item_label, register
 from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import SI_CONTEXT, Bearing, Elevation, GroundField, PlanPoint, quantity
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.problems import toml_repr
 from snrgain.units import parse_quantity
 
 WEIGHT_KEYS = ("delay", "delay_line", "phase", "amplitude")
@@ -89,10 +90,25 @@ class SteeringParams(AntennaParams):
         return self
 
 
+def at_least_two(items: list, what: str) -> list:
+    """``items`` of an array (its elements or their positions), refused below two: one element is no array."""
+    if len(items) < 2:
+        raise ValueError(
+            f"an array needs at least two elements (at most 64); got {len(items)} {what}"
+            f"{'' if len(items) == 1 else 's'} (a single antenna is a candidate of its own family)"
+        )
+    return items
+
+
 class ArrayParams(SteeringParams):
     family: Literal["array"]
-    elements: list[dict[str, Any]] = Field(min_length=1, max_length=64)
+    elements: list[dict[str, Any]] = Field(max_length=64)
     _si: bool = PrivateAttr(default=False)
+
+    @field_validator("elements")
+    @classmethod
+    def _two_or_more(cls, v):
+        return at_least_two(v, "element")
 
     @model_validator(mode="after")
     def _remember_units(self, info: ValidationInfo):
@@ -109,7 +125,7 @@ matched line of ``line_impedance`` from a matched combiner (the currents follow 
 
 class PhasedVerticalsParams(SteeringParams):
     family: Literal["phased-verticals"]
-    positions: list[PlanPoint] = Field(min_length=1, max_length=64)
+    positions: list[PlanPoint] = Field(max_length=64)
     height: quantity("length", ge=0.05, le=60.0)
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     top_loading: quantity("length", ge=0.0, le=60.0) = 0.0
@@ -120,6 +136,11 @@ class PhasedVerticalsParams(SteeringParams):
     line_impedance: quantity("resistance", ge=1.0, le=1000.0) = 75.0
     diameter: quantity("length", ge=1e-4, le=0.5) = 0.025
     """Element diameter [m], for the self reactance of coupled elements (25 mm tubing, common practice)."""
+
+    @field_validator("positions")
+    @classmethod
+    def _two_or_more(cls, v):
+        return at_least_two(v, "position")
 
     @model_validator(mode="after")
     def _lists(self):
@@ -156,9 +177,9 @@ def _si_or_parse(value, dimension: str, si: bool) -> float:
 
 def _number(value, what: str, where: str, lo: float, hi: float) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value):
-        raise ValueError(f"{where}.{what} must be a number; got {value!r}")
+        raise ValueError(f"{where}.{what} must be a number; got {toml_repr(value)}")
     if not lo <= value <= hi:
-        raise ValueError(f"{where}.{what} must lie between {lo:g} and {hi:g}; got {value!r}")
+        raise ValueError(f"{where}.{what} must lie between {lo:g} and {hi:g}; got {toml_repr(value)}")
     return float(value)
 
 
@@ -168,7 +189,7 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
     if "delay" in entry:
         delay = _si_or_parse(entry["delay"], "time", si)
         if abs(delay) > 1e-3:
-            raise ValueError(f"{where}.delay must lie within 1 ms; got {entry['delay']!r}")
+            raise ValueError(f"{where}.delay must lie within 1 ms; got {toml_repr(entry['delay'])}")
     if "delay_line" in entry:
         dl = entry["delay_line"]
         if not isinstance(dl, dict) or set(dl) - {"length", "velocity_factor"} or "length" not in dl:
@@ -176,7 +197,7 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
         vf = _number(dl.get("velocity_factor", 0.66), "delay_line.velocity_factor", where, 0.05, 1.0)
         length = _si_or_parse(dl["length"], "length", si)
         if not 0 <= length <= 10e3:
-            raise ValueError(f"{where}.delay_line.length must lie between 0 and 10 km; got {dl['length']!r}")
+            raise ValueError(f"{where}.delay_line.length must lie between 0 and 10 km; got {toml_repr(dl['length'])}")
         delay += length / (vf * C_M_PER_S)
     phase = np.radians(_number(entry.get("phase", 0.0), "phase", where, -720.0, 720.0))
     amp = _number(entry.get("amplitude", 1.0), "amplitude", where, 0.0, 100.0)

@@ -20,6 +20,7 @@ from pydantic import ValidationError
 
 from snrgain.errors import SpecError
 from snrgain.fields import SI_CONTEXT, Name, PlanPoint, StrictModel
+from snrgain.problems import toml_repr
 from snrgain.records import record
 
 
@@ -254,14 +255,14 @@ def validate_spec(spec: dict, prefix: str = "", *, si: bool = False) -> AntennaP
     """
     where = (prefix + ".") if prefix else ""
     if not isinstance(spec, dict):
-        raise SpecError([(prefix, f"an antenna must be a table of keys, got {spec!r}")])
+        raise SpecError([(prefix, f"an antenna must be a table of keys, got {toml_repr(spec)}")])
     family = spec.get("family")
     if family is None:
         valid = ", ".join(repr(k) for k in FAMILIES)
         raise SpecError([(f"{where}family", f"required key is missing; choose one of {valid}")])
     if not isinstance(family, str) or family not in FAMILIES:
         valid = ", ".join(repr(k) for k in FAMILIES)
-        raise SpecError([(f"{where}family", f"unknown antenna family {family!r}; choose one of {valid}")])
+        raise SpecError([(f"{where}family", f"unknown antenna family {toml_repr(family)}; choose one of {valid}")])
     try:
         return FAMILIES[family].params.model_validate(spec, context=SI_CONTEXT if si else None)
     except ValidationError as exc:

@@ -164,7 +164,8 @@ def golden_max(f, lo: float, hi: float, *, xtol: float, maxiter: int = 40) -> tu
 
 def best_resistor(figure, values_ohm=RESISTOR_SWEEP_OHM) -> float:
     """The resistor [ohm] that maximises ``figure(r)``: the best of a coarse sweep, refined by a golden-section
-    search in log R between its neighbours (to about 0.5 %)."""
+    search in log R between its neighbours (to about 0.5 %).  Where the figure still rises at an end of the sweep
+    that end itself is returned (:func:`search_bound` tells it apart from an optimum)."""
     if getattr(figure, "vectorised", False):  # the whole sweep in one call
         values = [float(v) for v in figure(np.asarray(values_ohm, dtype=float))]
     else:
@@ -173,6 +174,17 @@ def best_resistor(figure, values_ohm=RESISTOR_SWEEP_OHM) -> float:
     lo, hi = values_ohm[max(i - 1, 0)], values_ohm[min(i + 1, len(values_ohm) - 1)]
     x, fx = golden_max(lambda x: float(figure(np.exp(x))), np.log(lo), np.log(hi), xtol=0.005)
     return float(np.exp(x)) if fx >= values[i] else float(values_ohm[i])
+
+
+def search_bound(best_ohm: float, values_ohm) -> str | None:
+    """ "low" ("high") when the best resistor a search found is the lowest (highest) it tried: the figure still
+    rises beyond the range searched, so the resistor is the range's end, not an optimum; None for an optimum
+    inside the range."""
+    if best_ohm <= float(np.min(values_ohm)):
+        return "low"
+    if best_ohm >= float(np.max(values_ohm)):
+        return "high"
+    return None
 
 
 def termination_figure(pattern, bearing_rad: float, elevation_rad: float, metric: str):
@@ -203,6 +215,8 @@ SKY_SWEEP = np.geomspace(0.15, 3.0, 12)
 """The resistors an "snr" termination tries under the sky, in units of |Z0| (then refined between neighbours)."""
 SKY_REFINE = (6, 4)
 """Points of each finer grid between the best resistor's neighbours (log R), the second around the first's best."""
+SKY_WIDEN = 4
+"""Points added beyond an end of SKY_SWEEP where the statistic is best, out to the end of the family's own range."""
 
 
 class SkyTermination:
@@ -215,6 +229,8 @@ class SkyTermination:
 
     sky_order = 0
     sky_termination: dict | None = None
+    auto_terminations_ohm = RESISTOR_SWEEP_OHM
+    """The resistors [ohm] a search for termination = "auto" sweeps (its ends: the range searched)."""
 
     @property
     def uses_sky(self) -> bool:
@@ -224,7 +240,9 @@ class SkyTermination:
         """The antenna with the resistor of highest score [dB] fixed: a sweep over SKY_SWEEP x |Z0| and |Z0| itself,
         refined between the best point's neighbours by two finer grids in log R (SKY_REFINE points each, the second
         around the best of the first), each grid scored in one call of ``score(variants)`` (the score of each of a
-        list of variants): three passes of the ranking's products in all, to about 2 % in R."""
+        list of variants): three passes of the ranking's products in all, to about 2 % in R.  Where the sweep's
+        best is one of its ends, one more pass first widens it out to that end of ``auto_terminations_ohm``
+        (SKY_WIDEN points); a best still at an end is that end of the range (longwire.search_bound)."""
         from snrgain.antennas.base import variant
 
         matched = max(self.matched_termination_ohm(freq_hz), 1.0)
@@ -238,12 +256,19 @@ class SkyTermination:
         run(sorted({*(matched * SKY_SWEEP), matched}))
         values = sorted(tried)
         i = int(np.argmax([tried[r] for r in values]))
+        floor, top = float(self.auto_terminations_ohm[0]), float(self.auto_terminations_ohm[-1])
+        if i == 0 and values[0] > floor * 1.01:
+            run(np.geomspace(floor, values[0], SKY_WIDEN + 1)[:-1])
+        elif i == len(values) - 1 and values[-1] < top / 1.01:
+            run(np.geomspace(values[-1], top, SKY_WIDEN + 1)[1:])
+        values = sorted(tried)
+        i = int(np.argmax([tried[r] for r in values]))
         lo, hi = np.log(values[max(i - 1, 0)]), np.log(values[min(i + 1, len(values) - 1)])
         for n in SKY_REFINE:
             step = (hi - lo) / (n + 1)
             run(np.exp(lo + step * np.arange(1, n + 1)))
-            best = np.log(max(tried, key=tried.get))
-            lo, hi = best - step, best + step
+            best = np.log(max(tried, key=tried.get))  # the next grid about it, within the range searched
+            lo, hi = max(best - step, np.log(min(tried))), min(best + step, np.log(max(tried)))
         best = max(tried, key=tried.get)
         out = variant(self, termination=best)
         rs = sorted(tried)
@@ -749,7 +774,7 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
                 figure = termination_figure(
                     self.termination_pattern(freq_hz), self.bearing_rad, AUTO_ELEVATION_RAD, how
                 )
-            self._auto_term[key] = best_resistor(figure)
+            self._auto_term[key] = best_resistor(figure, self.auto_terminations_ohm)
         return self._auto_term[key]
 
     def termination_pattern(self, freq_hz: float):

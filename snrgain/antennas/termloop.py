@@ -354,6 +354,7 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
     """See the module docstring."""
 
     placeable = True
+    auto_terminations_ohm = AUTO_TERMINATIONS_OHM
 
     def __init__(self, params: TerminatedLoopParams):
         super().__init__(params)
@@ -431,7 +432,7 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         figure = termination_figure(
             self.termination_pattern(freq_hz), self.params.bearing, self.params.auto_elevation, how
         )
-        return best_resistor(figure, AUTO_TERMINATIONS_OHM)
+        return best_resistor(figure, self.auto_terminations_ohm)
 
     def termination_pattern(self, freq_hz: float):
         """pattern(az, el, r): the power pattern with a termination r [ohm] (see longwire.termination_figure)."""

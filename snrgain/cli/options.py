@@ -287,8 +287,12 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
 
 def read_scenario_text(path) -> str:
     """A scenario's text to copy (calibrate, locate, layout --write): a regular UTF-8 file within the size limit."""
+    from snrgain.errors import ScenarioError
     from snrgain.scenario import read_text_file
+    from snrgain.scenario.files import is_stdin
 
+    if is_stdin(path):  # a copy keeps the scenario's own folder for its relative paths: it needs the file
+        raise ScenarioError(str(path), [("", "a scenario copy is made from a file: give the scenario's path, not '-'")])
     return read_text_file(Path(path))
 
 

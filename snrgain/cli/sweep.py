@@ -105,8 +105,9 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
             "hundred designs a second, a section's a few a second); narrow the ranges or coarsen the steps, or pass "
             "--allow-long to run them all"
         )
+    sw.validate(study)  # every --vary checked before anything is printed or written
     in_bands = f" in each of {len(bands)} bands ({', '.join(bands)})" if bands else ""
     click.echo(f"sweep: {total} design{'s' if total != 1 else ''}{in_bands}", err=True)
     with progress(total, "sweep: designs") as bar:
-        n = sw.run(study, output, overwrite=overwrite, dask=dask_address, progress=bar.update)
+        n = sw.run(study, output, overwrite=overwrite, dask=dask_address, progress=bar.update, validated=True)
     click.echo(f"wrote {output}: {n} designs", err=True)

@@ -164,11 +164,6 @@ def wire(
     if "textbook_termination_ohm" in out:
         lo, hi = out["termination_search_ohm"]
         spans = out["termination_rdf_span_db"], out["termination_front_to_back_span_db"]
-
-        def best(key):
-            r = out[key]
-            return f"{hi:.0f} ohm or more (the top of the range searched)" if r >= hi else f"{r:.0f} ohm"
-
         if max(spans) < 0.5:
             lines_out.append(
                 f"  termination: hardly matters on this wire (RDF and front-to-back move under 0.5 dB from {lo:.0f} "
@@ -195,17 +190,26 @@ def termination_lines(out: dict) -> list[str]:
     answers = out["termination_answers"]
     crit = out.get("termination_criterion", "rdf")
     names = {"rdf": "RDF", "front_to_back": "front-to-back"}
+    from snrgain.tools.wiredesign import bound_text
+
     a = answers.get(crit, answers["rdf"])
     other = answers["front_to_back" if a["criterion"] == "rdf" else "rdf"]
+    ohm, name = a["termination_ohm"], names[a["criterion"]]
+    bound = bound_text(a, f"{name} along the wire at 20 deg")
+    if bound is None:
+        head = f"the resistor of best {name} along the wire at 20 deg ({a['figure_db']:.1f} dB)"
+        flat = [(0.7, "loss_at_0p7_db"), (1.4, "loss_at_1p4_db")]
+    else:  # an end of the range searched: only the side inside the range says how flat it is
+        head = bound
+        flat = [(1.4, "loss_at_1p4_db")] if a["at_search_bound"] == "low" else [(0.7, "loss_at_0p7_db")]
+    flatness = ", ".join(f"{a[key]:.2f} dB lost at {k:g}x ({k * ohm:.0f} ohm)" for k, key in flat)
+    other_bound = " (an end of the range searched)" if other.get("at_search_bound") else ""
     return [
-        f"  termination: fit {a['termination_ohm']:.0f} ohm (nearest E12 {a['standard_ohm']:g} ohm, "
-        f"{a['standard_loss_db']:.2f} dB off the best), the resistor of best {names[a['criterion']]} along the "
-        f"wire at 20 deg ({a['figure_db']:.1f} dB)",
+        f"  termination: fit {ohm:.0f} ohm (nearest E12 {a['standard_ohm']:g} ohm, "
+        f"{a['standard_loss_db']:.2f} dB off {'the best' if bound is None else f'{ohm:.0f} ohm'}), {head}",
         f"    |Z0| less the far ground ({out['far_ground_ohm']:.0f} ohm) = {a['matched_ohm']:.0f} ohm, the trade's "
-        f"rule for a flat SWR (common practice): {a['over_matched_db']:.2f} dB less {names[a['criterion']]} than "
-        f"{a['termination_ohm']:.0f} ohm",
-        f"    how flat: {a['loss_at_0p7_db']:.2f} dB lost at 0.7x ({0.7 * a['termination_ohm']:.0f} ohm), "
-        f"{a['loss_at_1p4_db']:.2f} dB at 1.4x ({1.4 * a['termination_ohm']:.0f} ohm); best "
-        f"{names[other['criterion']]}: {other['termination_ohm']:.0f} ohm (E12 {other['standard_ohm']:g})",
+        f"rule for a flat SWR (common practice): {a['over_matched_db']:.2f} dB less {name} than {ohm:.0f} ohm",
+        f"    how flat: {flatness}; best {names[other['criterion']]}: {other['termination_ohm']:.0f} ohm "
+        f"(E12 {other['standard_ohm']:g}){other_bound}",
         "    " + a["caution"],
     ]

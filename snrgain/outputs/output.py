@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import csv
 import io
 import json
 
@@ -10,6 +9,7 @@ import numpy as np
 
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
+from snrgain.outputs.csvcells import csv_writer
 from snrgain.units import length_both_text, length_text, lengths_text, number_text, s_units, signed_text
 
 
@@ -29,7 +29,7 @@ def to_csv(results: Results, *, band: str | None = None, header: bool = True) ->
     (a scenario of several bands)."""
     df = results.to_dataframe()
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
+    w = csv_writer(buf)  # names that begin like a formula are written as text (csvcells)
     if header:
         w.writerow((["band"] if band is not None else []) + CSV_COLUMNS)
     as_text = [
@@ -354,6 +354,7 @@ def plan_text(r: Results):
 def build_lines(r: Results) -> list[tuple[str, str]]:
     """(candidate, what to build) in words, one per candidate, from what each build sheet contains."""
     from snrgain.antennas import FAMILIES
+    from snrgain.tools import wiredesign
 
     unit = r.site.get("length_unit", "m")  # lengths in the scenario's unit (snrgain.units.length_unit_of)
     out = []
@@ -400,11 +401,17 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 ]
                 if ans.get("target"):
                     crit += f" toward {ans['target']}"
+                bound = wiredesign.bound_text(ans, crit)
+                if bound is None:
+                    best = f"best {crit} at {ans['termination_ohm']:.0f} ohm"
+                    flat = f"{ans['loss_at_0p7_db']:.2f} / {ans['loss_at_1p4_db']:.2f} dB lost at 0.7x / 1.4x"
+                else:  # an end of the range searched: only the side inside it says how flat it is
+                    best, k = bound, ("1p4", "1.4") if ans["at_search_bound"] == "low" else ("0p7", "0.7")
+                    flat = f"{ans[f'loss_at_{k[0]}_db']:.2f} dB lost at {k[1]}x"
                 bits.append(
-                    f"{'you gave it; ' if b.get('termination_given') else ''}best {crit} at "
-                    f"{ans['termination_ohm']:.0f} ohm, {ans['over_matched_db']:.2f} dB over the "
-                    f"{ans['matched_ohm']:.0f} ohm of |Z0| less the far ground; {ans['loss_at_0p7_db']:.2f} / "
-                    f"{ans['loss_at_1p4_db']:.2f} dB lost at 0.7x / 1.4x; resistor {ans['caution_short']}"
+                    f"{'you gave it; ' if b.get('termination_given') else ''}{best}"
+                    f"{', ' if bound is None else '; it gives '}{ans['over_matched_db']:.2f} dB over the "
+                    f"{ans['matched_ohm']:.0f} ohm of |Z0| less the far ground; {flat}; resistor {ans['caution_short']}"
                 )
             if b.get("end_to_end_loss_db", 0.0) > 20.0:
                 bits.append(

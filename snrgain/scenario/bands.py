@@ -14,6 +14,7 @@ from __future__ import annotations
 import copy
 
 from snrgain.errors import ScenarioError
+from snrgain.problems import toml_repr
 
 MAX_BANDS = 12
 
@@ -83,7 +84,9 @@ def _check_bands(band: list, data: dict, label: str) -> tuple[list[str], list]:
         wanted = t.get("bands") if isinstance(t, dict) else None
         if wanted is not None:
             if not isinstance(wanted, list) or not all(isinstance(w, str) for w in wanted):
-                problems.append((f"target {i + 1}.bands", f"a list of band names, e.g. [{names[0]!r}]; got {wanted!r}"))
+                problems.append(
+                    (f"target {i + 1}.bands", f"a list of band names, e.g. [{names[0]!r}]; got {toml_repr(wanted)}")
+                )
                 continue
             unknown = sorted(set(wanted) - set(names))
             if unknown:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import sys
 import tomllib
 from pathlib import Path
 
@@ -15,8 +16,66 @@ MAX_ITEMS = 64
 """The most targets, candidates or local sources a scenario may hold."""
 
 
+STDIN_PATH = "-"
+"""The scenario path that stands for standard input."""
+STDIN_LABEL = "<standard input>"
+_STDIN: list = []
+"""[(stream, text or ScenarioError)]: what standard input gave, read once per stream (a command may read its
+scenario more than once: its bands, then each band)."""
+
+
+def is_stdin(source) -> bool:
+    """Whether a scenario source names standard input ("-")."""
+    return isinstance(source, (str, Path)) and str(source) == STDIN_PATH
+
+
+def read_stdin() -> str:
+    """The UTF-8 text piped into standard input, read once (at most MAX_FILE_BYTES); ScenarioError when there is
+    none, when it is a terminal (nothing piped: it would wait for typing), when it is larger or not UTF-8."""
+    stream = sys.stdin
+    if not (_STDIN and _STDIN[0][0] is stream):
+        try:
+            got = _stdin_text(stream)
+        except ScenarioError as exc:
+            got = exc
+        _STDIN[:] = [(stream, got)]
+    got = _STDIN[0][1]
+    if isinstance(got, ScenarioError):
+        raise ScenarioError(got.source, got.problems)
+    return got
+
+
+def _stdin_text(stream) -> str:
+    def refuse(why: str):
+        return ScenarioError(STDIN_LABEL, [("", why)])
+
+    if stream is None:
+        raise refuse("there is no standard input; give the scenario's file path")
+    try:
+        terminal = stream.isatty()
+    except (AttributeError, ValueError, OSError):
+        terminal = False
+    if terminal:
+        raise refuse(
+            "standard input is a terminal; pipe a scenario into it (snrgain check - < site.toml) or give a path"
+        )
+    try:
+        buffer = getattr(stream, "buffer", None)
+        raw = buffer.read(MAX_FILE_BYTES + 1) if buffer is not None else stream.read(MAX_FILE_BYTES + 1).encode()
+    except (OSError, ValueError) as exc:
+        raise refuse(f"cannot read standard input ({exc})") from None
+    if len(raw) > MAX_FILE_BYTES:
+        raise refuse(f"standard input holds more than {MAX_FILE_BYTES:,} bytes, the most a scenario may have")
+    if not raw.strip():
+        raise refuse("standard input is empty; pipe a scenario into it or give the scenario's file path")
+    return decode_text(raw, STDIN_LABEL)
+
+
 def read_input(source) -> tuple[str, str, Path | None]:
-    """(text, label, folder relative paths start from) of a path or TOML text."""
+    """(text, label, folder relative paths start from) of a path or TOML text; "-" reads standard input (its
+    relative paths start from the current folder)."""
+    if is_stdin(source):
+        return read_stdin(), STDIN_LABEL, Path.cwd()
     looks_like_path = (
         isinstance(source, str)
         and "\n" not in source

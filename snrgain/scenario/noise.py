@@ -50,6 +50,18 @@ class Sector(StrictModel):
     stop: Bearing = Field(alias="to")
     contrast: decibels(-60.0, 60.0) = 10.0
 
+    @model_validator(mode="after")
+    def _width(self):
+        width = float(np.mod(self.stop - self.start, 2 * np.pi))
+        if min(width, 2 * np.pi - width) < 1e-9:  # the same bearing (40 to 40) or a full turn (0 to 360)
+            a, b = (float(np.degrees(x)) for x in (self.start, self.stop))
+            what = "the same bearing, no width" if abs(a - b) < 1e-6 else "a full turn, the whole horizon"
+            raise ValueError(
+                f"a sector runs clockwise from 'from' to 'to' and needs a width > 0 and under 360 deg; got from "
+                f"{a:g} deg to {b:g} deg, {what} (for noise as strong from every direction leave the sector out)"
+            )
+        return self
+
 
 class ManMade(StrictModel):
     environment: Literal[MAN_MADE_CHOICES] = _MM.environment

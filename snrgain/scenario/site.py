@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import copy
 import re
 from typing import Annotated, Literal
 
@@ -20,6 +21,7 @@ from snrgain.fields import (
     quantity,
 )
 from snrgain.physics.ground import Ground, GroundSpread
+from snrgain.problems import toml_repr
 from snrgain.records import record
 from snrgain.scenario.structures import Structure, check_detuning
 
@@ -200,9 +202,9 @@ def latlon_pair(value) -> tuple[float, float]:
         if all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value):
             lat, lon = float(value[0]), float(value[1])
     if lat is None or lon is None or lat != lat or lon != lon:
-        raise ValueError(f"expected a latitude and longitude such as {LATLON_EXAMPLE}; got {value!r}")
+        raise ValueError(f"expected a latitude and longitude such as {LATLON_EXAMPLE}; got {toml_repr(value)}")
     if not (-90.0 <= lat <= 90.0 and -180.0 <= lon <= 360.0):
-        raise ValueError(f"latitude must lie within -90..90 and longitude within -180..360 degrees; got {value!r}")
+        raise ValueError(f"latitude must lie within -90..90 and longitude -180..360 degrees; got {toml_repr(value)}")
     return lat, lon
 
 
@@ -238,7 +240,7 @@ def _converted(value, where: str, site_ll, single: bool, problems: list):
     if not (isinstance(value, dict) and LATLON_KEY in value):
         return value
     if set(value) != {LATLON_KEY}:
-        problems.append((where, f"a place by latitude and longitude is {{ {LATLON_KEY} = ... }} alone; got {value!r}"))
+        problems.append((where, f"a place {{ {LATLON_KEY} = ... }} takes no other key; got {toml_repr(value)}"))
         return value
     raw = value[LATLON_KEY]
     items = [raw] if single else raw
@@ -284,8 +286,6 @@ def plan_from_latlon(data) -> tuple[object, list[tuple[str, str]]]:
 
     if not isinstance(data, dict) or not any(by_latlon(t) for _, t in tables(data)):
         return data, []
-    import copy
-
     site_ll = _site_place(data)
     if site_ll is None:
         return data, [("site", f"places given by {LATLON_KEY} need the site's latitude and longitude")]

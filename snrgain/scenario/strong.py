@@ -12,6 +12,7 @@ from pydantic import BeforeValidator, Field, model_validator
 from snrgain.constants import FREQ_RANGE_HZ
 from snrgain.fields import Bearing, Latitude, Longitude, StrictModel, quantity
 from snrgain.physics import strong as strongmod
+from snrgain.problems import toml_repr
 from snrgain.units import normalise_text
 
 LIMIT_RANGE_DBM = (-40.0, 80.0)
@@ -22,14 +23,14 @@ _DBM = re.compile(r"^\s*([-+]?[0-9]+(?:\.[0-9]*)?|[-+]?\.[0-9]+)\s*(dBm)?\s*$", 
 
 def _limit_dbm(value):
     if isinstance(value, bool) or not isinstance(value, (int, float, str)):
-        raise ValueError(f"expected a level in dBm such as '+20 dBm', got {value!r}")
+        raise ValueError(f"expected a level in dBm such as '+20 dBm', got {toml_repr(value)}")
     m = _DBM.match(normalise_text(value, "a level")) if isinstance(value, str) else None
     if isinstance(value, str) and not m:
-        raise ValueError(f"cannot read {value!r} as a level; write it like '+20 dBm'")
+        raise ValueError(f"cannot read {toml_repr(value)} as a level; write it like '+20 dBm'")
     x = float(m.group(1)) if m else float(value)
     lo, hi = LIMIT_RANGE_DBM
     if not (np.isfinite(x) and lo <= x <= hi):
-        raise ValueError(f"must be between {lo:+g} and {hi:+g} dBm (input-referred); got {value!r}")
+        raise ValueError(f"must be between {lo:+g} and {hi:+g} dBm (input-referred); got {toml_repr(value)}")
     return x
 
 

@@ -21,6 +21,7 @@ from pydantic import TypeAdapter, ValidationError
 from snrgain.antennas import FAMILIES, Antenna
 from snrgain.antennas.base import pydantic_problems
 from snrgain.fields import Bearing
+from snrgain.problems import toml_repr
 from snrgain.records import record
 
 CANDIDATE_KEYS = ("directions",)
@@ -96,14 +97,14 @@ def named_label(name: str, bearing_deg: float) -> str:
 def _state_name_problem(name, taken: dict[str, int]) -> str | None:
     """Why ``name`` cannot name a state (``taken``: the names given before, folded, -> their direction)."""
     if not isinstance(name, str):
-        return f'a state\'s name is text, e.g. "front" or "EU"; got {name!r}'
+        return f'a state\'s name is text, e.g. "front" or "EU"; got {toml_repr(name)}'
     text = name.strip()
     if not text:
         return "a state's name is text of at least one character; got an empty name"
     if len(text) > MAX_STATE_NAME:
         return f"a state's name is at most {MAX_STATE_NAME} characters; {name!r} has {len(text)}"
     if not text.isprintable():
-        return f"a state's name is printable text on one line; got {name!r}"
+        return f"a state's name is printable text on one line; got {toml_repr(name)}"
     if text.casefold() in taken:
         return f"{name!r} names direction {taken[text.casefold()]} already; give each state a name of its own"
     return None
@@ -144,18 +145,18 @@ def _split_directions(directions, key: str) -> tuple[list, list[str | None], lis
 def _directions_problem(directions, where: str) -> tuple[list[float] | None, list[str | None], list[tuple[str, str]]]:
     """The bearings of ``directions`` [rad] as written and the states' names (None: unnamed), or the problems (named
     ``<where>.directions``)."""
-    key = f"{where}.directions"
+    key, got = f"{where}.directions", toml_repr(directions)
     if not isinstance(directions, list):
         return (
             None,
             [],
-            [(key, f"a list of 2 to {MAX_DIRECTIONS} bearings or named states, e.g. {_EXAMPLE}; got {directions!r}")],
+            [(key, f"a list of 2 to {MAX_DIRECTIONS} bearings or named states, e.g. {_EXAMPLE}; got {got}")],
         )
     if not 2 <= len(directions) <= MAX_DIRECTIONS:
         return (
             None,
             [],
-            [(key, f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; got {len(directions)} ({directions!r})")],
+            [(key, f"a switched antenna has 2 to {MAX_DIRECTIONS} directions; got {len(directions)} ({got})")],
         )
     written, names, problems = _split_directions(directions, key)
     if problems:
@@ -245,7 +246,7 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
         return [], [(f"{where}.name", "a switched antenna (directions) needs a name: its states are named after it")]
     why = _switch_problem(family, spec, where)
     if why:
-        return [], [(key, f"{directions!r}: {why}")]
+        return [], [(key, f"{toml_repr(directions)}: {why}")]
     how = "steered" if family.build.phased else "turned"
     if family.build.long_wire:
         apart = abs((np.degrees(bearings[1] - bearings[0]) + 180.0) % 360.0 - 180.0)
@@ -253,8 +254,8 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
             return [], [
                 (
                     key,
-                    f"{directions!r}: a {family.name} is one wire served from either end, so its directions are two "
-                    'bearings 180 deg apart (e.g. ["45 deg", "225 deg"]); for other bearings write other wires',
+                    f"{toml_repr(directions)}: a {family.name} is one wire served from either end, so its directions "
+                    'are two bearings 180 deg apart (e.g. ["45 deg", "225 deg"]); for other bearings write other wires',
                 )
             ]
         how = "port" if "port" in family.params.model_fields else "ends"

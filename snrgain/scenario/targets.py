@@ -10,6 +10,7 @@ from pydantic import Field, field_validator, model_validator
 from snrgain.antennas.base import item_label
 from snrgain.fields import Bearing, Elevation, Latitude, Longitude, Name, StrictModel, quantity
 from snrgain.physics import targets as targetmod
+from snrgain.problems import toml_repr
 
 from .times import Hours, Months
 
@@ -45,7 +46,7 @@ class Target(StrictModel):
         if v is None:
             return v
         if not isinstance(v, list) or len(v) != 2:
-            raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {v!r}")
+            raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {toml_repr(v)}")
         return v
 
     @model_validator(mode="after")

@@ -32,6 +32,7 @@ from snrgain.antennas.base import variant
 from snrgain.constants import FREQ_RANGE_HZ, wire_families
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, Ground
+from snrgain.problems import toml_repr
 from snrgain.records import record
 from snrgain.tools.readings import read_toml
 
@@ -483,7 +484,8 @@ def load_readings(path: str | Path) -> WireReadings:
             [
                 (
                     "wire.family",
-                    f"calibration needs a long-wire family ({', '.join(wire_families())}); got {spec.get('family')!r}",
+                    f"calibration needs a long-wire family ({', '.join(wire_families())}); "
+                    f"got {toml_repr(spec.get('family'))}",
                 )
             ],
         )

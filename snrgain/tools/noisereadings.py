@@ -51,6 +51,7 @@ import numpy as np
 
 from noisemodels.constants import BOLTZMANN_J_PER_K as BOLTZMANN
 from noisemodels.p372 import T0_K
+from snrgain.problems import toml_repr
 from snrgain.records import record
 
 SMALL_RISE_DB = 3.0
@@ -160,7 +161,7 @@ def s_meter_dbm(text: str, table: list[tuple[float, float]] | None, where: str) 
     from snrgain.units import QuantityError, parse_power_dbm
 
     if not isinstance(text, str) or not text.strip().upper().startswith("S"):
-        raise _problem(where, f"an S-meter reading such as 'S5' or 'S9+10'; got {text!r}")
+        raise _problem(where, f"an S-meter reading such as 'S5' or 'S9+10'; got {toml_repr(text)}")
     try:
         nominal = parse_power_dbm(text)
     except QuantityError as exc:
@@ -217,7 +218,9 @@ def load_readings(path) -> list[Reading]:
                 if not s.strip().upper().startswith("S") or not np.isfinite(pts[-1][1]):
                     raise ValueError
             except (ValueError, TypeError, QuantityError):
-                problems.append((f"{where}.s_meter[{j}]", f"a pair [S-reading, dBm] such as ['S9', -73]; got {pair!r}"))
+                problems.append(
+                    (f"{where}.s_meter[{j}]", f"a pair [S-reading, dBm] such as ['S9', -73]; got {toml_repr(pair)}")
+                )
         pts.sort()
         if len(pts) == 1 or any(b[1] <= a[1] or b[0] <= a[0] for a, b in zip(pts, pts[1:])):
             problems.append((f"{where}.s_meter", "at least two entries, the dBm rising with the S-reading"))
@@ -234,7 +237,9 @@ def load_readings(path) -> list[Reading]:
         if isinstance(t, _dt.datetime):
             t = t.replace(tzinfo=_dt.UTC) if t.tzinfo is None else t.astimezone(_dt.UTC)
         else:
-            problems.append((f"{where}.time", f"a TOML date-time in UTC such as 2026-12-02T23:10:00Z; got {t!r}"))
+            problems.append(
+                (f"{where}.time", f"a TOML date-time in UTC such as 2026-12-02T23:10:00Z; got {toml_repr(t)}")
+            )
         ant = r.get("antenna")
         if not isinstance(ant, str) or not ant:
             problems.append((f"{where}.antenna", "the name of the scenario's antenna the reading was taken on"))
@@ -244,7 +249,7 @@ def load_readings(path) -> list[Reading]:
                 try:
                     vals[key] = parse_quantity(r[key], dim)
                     if not vals[key] > 0:
-                        raise QuantityError(f"must be above 0 Hz; got {r[key]!r}")
+                        raise QuantityError(f"must be above 0 Hz; got {toml_repr(r[key])}")
                 except QuantityError as exc:
                     problems.append((f"{where}.{key}", str(exc)))
             elif need:
@@ -270,13 +275,15 @@ def load_readings(path) -> list[Reading]:
                 problems.append(
                     (
                         f"{where}.load_temperature",
-                        f"a temperature from 1 to 400 K such as '290 K'; got {r['load_temperature']!r}",
+                        f"a temperature from 1 to 400 K such as '290 K'; got {toml_repr(r['load_temperature'])}",
                     )
                 )
         else:
             rx = r.get("receiver")
             if rx is not None and not isinstance(rx, str):
-                problems.append((f"{where}.receiver", f"the name of a [[receiver]] table, as text; got {rx!r}"))
+                problems.append(
+                    (f"{where}.receiver", f"the name of a [[receiver]] table, as text; got {toml_repr(rx)}")
+                )
             elif rx is not None and rx not in tables:
                 problems.append((f"{where}.receiver", f"no [[receiver]] named {rx!r}"))
             elif "bandwidth" not in r:

@@ -13,6 +13,8 @@ from pathlib import Path
 
 import numpy as np
 
+from snrgain.problems import toml_repr
+
 
 def read_toml(path: str | Path, *, allowed: set[str] | None = None) -> dict:
     """A readings file as a dict; ReadingsError naming the file (cannot read, not UTF-8, not TOML, too deep)."""
@@ -55,11 +57,11 @@ def impedance_field(value):
     |R|, |X| up to :data:`MAX_IMPEDANCE_OHM`."""
     z = parse_impedance(value, "expected")
     if not (np.isfinite(z.real) and np.isfinite(z.imag)):
-        raise ValueError(f"an impedance must be finite; got {value!r}")
+        raise ValueError(f"an impedance must be finite; got {toml_repr(value)}")
     if not (0.0 <= z.real <= MAX_IMPEDANCE_OHM and abs(z.imag) <= MAX_IMPEDANCE_OHM):
         raise ValueError(
             f"an impedance needs R from 0 to {MAX_IMPEDANCE_OHM:g} ohm and X within +-{MAX_IMPEDANCE_OHM:g} ohm "
-            f"(a passive wire, read by an analyser); got {value!r}"
+            f"(a passive wire, read by an analyser); got {toml_repr(value)}"
         )
     return z
 
@@ -85,4 +87,4 @@ def parse_impedance(value, where: str) -> complex:
             return complex(text)
         except ValueError:
             pass
-    raise ValueError(f"{where} an impedance as [R, X] in ohm or a string like '95-210j'; got {value!r}")
+    raise ValueError(f"{where} an impedance as [R, X] in ohm or a string like '95-210j'; got {toml_repr(value)}")

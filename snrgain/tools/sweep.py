@@ -301,6 +301,7 @@ def validate(study: Study) -> None:
     if study.bands:
         return
     base_values = [v.values[0] for v in study.varies]
+    _first_design(study, base_values)
     for i, vary in enumerate(study.varies):
         ends = vary.values if len(vary.values) <= 16 else [vary.values[0], vary.values[-1]]
         for value in ends:
@@ -310,12 +311,39 @@ def validate(study: Study) -> None:
                 study.load(apply(study.data, study.varies, values, study.band))
             except VaryError:
                 raise
-            except ScenarioError as exc:
-                _unvaried_fails(study, exc)
-                problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
-                raise VaryError(vary.text, f"with {_shown(value)} the scenario is invalid: {problems}") from None
-            except (SpecError, ValueError) as exc:
-                raise VaryError(vary.text, f"with {_shown(value)}: {exc}") from None
+            except (ScenarioError, SpecError, ValueError) as exc:
+                _invalid(study, vary, value, exc)
+
+
+def _invalid(study: Study, vary: Vary, value, exc: Exception):
+    """Raise the VaryError of a design that ``vary`` at ``value`` made invalid (the scenario's own error when the
+    file as written fails the same way)."""
+    if isinstance(exc, ScenarioError):
+        _unvaried_fails(study, exc)
+        problems = "; ".join(f"{p}: {m}" if p else m for p, m in exc.problems)
+        raise VaryError(vary.text, f"with {_shown(value)} the scenario is invalid: {problems}") from None
+    raise VaryError(vary.text, f"with {_shown(value)}: {exc}") from None
+
+
+def _first_design(study: Study, values: list) -> None:
+    """The design of every --vary's first value, checked first: when it fails and leaving one --vary out mends it,
+    that --vary is named (with two, ``A: length`` and ``A: colour``, the unknown colour was laid on the length)."""
+    try:
+        study.load(apply(study.data, study.varies, values, study.band))
+        return
+    except VaryError:
+        raise
+    except (ScenarioError, SpecError, ValueError) as exc:
+        failed = exc
+    if len(study.varies) < 2:
+        _invalid(study, study.varies[0], values[0], failed)
+    for i, vary in enumerate(study.varies):
+        rest, rest_values = study.varies[:i] + study.varies[i + 1 :], values[:i] + values[i + 1 :]
+        try:
+            study.load(apply(study.data, rest, rest_values, study.band))
+        except (ScenarioError, SpecError, ValueError):
+            continue
+        _invalid(study, vary, values[i], failed)
 
 
 def _unvaried_fails(study: Study, exc: ScenarioError) -> None:
@@ -509,10 +537,10 @@ class _TableWriter:
         if self.columns is None:
             self.columns = list(rows[0])
             if self.fmt == "csv":
-                import csv
+                from snrgain.outputs.csvcells import csv_writer
 
                 self._fh = open(self.path, "w", newline="", encoding="utf-8")  # noqa: SIM115 - closed in close()
-                self._csv = csv.writer(self._fh, lineterminator="\n")
+                self._csv = csv_writer(self._fh)  # names that begin like a formula are written as text
                 self._csv.writerow(self.columns)
         if self.fmt == "csv":
             for r in rows:
@@ -569,14 +597,17 @@ def run(
     dask: str | None = None,
     progress: Callable[[int], None] | None = None,
     chunk_designs: int | None = None,
+    validated: bool = False,
 ) -> int:
     """Run every design and write the table to ``output`` (.csv or .parquet) whole or not at all.
 
     ``dask``: "local" for a LocalCluster on this machine, or a scheduler's address.  ``progress(n)`` is called
-    with the number of designs done after each chunk.  Returns the number of designs.
+    with the number of designs done after each chunk.  ``validated``: :func:`validate` was called on ``study``
+    already (the command line checks every --vary before it prints anything).  Returns the number of designs.
     """
     fmt = output_format(output)
-    validate(study)
+    if not validated:
+        validate(study)
     total = design_count(study.varies)
     numbered = enumerate(designs(study.varies))
     # A cluster's workers start (and import what a design needs, :func:`dask_setup`) while this process works out

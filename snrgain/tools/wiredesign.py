@@ -186,6 +186,11 @@ class TerminationAnswer:
     """What 1.4 x the best loses [dB]."""
     target: str | None = None
     """The target the statistic is taken toward ("snr")."""
+    at_bound: str | None = None
+    """"low" ("high") when the best is the lowest (highest) resistor searched, the criterion still rising beyond
+    the range: that end of the range, not an optimum (longwire.search_bound); None for an optimum."""
+    search_ohm: tuple[float, float] | None = None
+    """The range of resistors searched [ohm] (None for "z0", which is not searched)."""
 
     def to_dict(self) -> dict:
         return {
@@ -201,6 +206,8 @@ class TerminationAnswer:
             "caution": RESISTOR_CAUTION,
             "caution_short": RESISTOR_CAUTION_SHORT,
             "target": self.target,
+            "at_search_bound": self.at_bound,
+            "search_ohm": None if self.search_ohm is None else list(self.search_ohm),
         }
 
 
@@ -208,7 +215,7 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
     """The resistor the antenna's own termination = "auto" gives for ``criterion`` ("rdf", "front_to_back";
     None: the antenna's ``auto_for``), with |Z0|, the E12 value and the figure's flatness around it; None for an
     antenna without a resistor to choose.  The same function serves `wire`, the build sheet and the report."""
-    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
+    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, search_bound, termination_figure
     from snrgain.decide.build import nearest_standard_ohm
 
     if not hasattr(antenna, "termination_pattern") or "termination" not in type(antenna.params).model_fields:
@@ -233,6 +240,7 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         return float(10 * np.log10(figure(max(r, 1e-3))))
 
     at_best, standard = db(best), nearest_standard_ohm(best)
+    searched = None if criterion == "z0" else antenna.auto_terminations_ohm
     return TerminationAnswer(
         criterion,
         float(best),
@@ -243,12 +251,34 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         at_best - db(standard),
         at_best - db(0.7 * best),
         at_best - db(1.4 * best),
+        at_bound=None if searched is None else search_bound(best, searched),
+        search_ohm=None if searched is None else (float(np.min(searched)), float(np.max(searched))),
+    )
+
+
+def bound_text(answer: dict, figure: str) -> str | None:
+    """What an answer (:meth:`TerminationAnswer.to_dict`) at an end of the range searched says in place of "best
+    at": the range, the end where ``figure`` (its name) is highest and how much more it gives beyond (where known),
+    and that the end is not an optimum; None for an optimum inside the range.  `wire` and the build lines print it."""
+    side = answer.get("at_search_bound")
+    if side is None:
+        return None
+    lo, hi = answer["search_ohm"]
+    if side == "low":
+        end, factor, beyond, way, which = lo, 0.7, -answer["loss_at_0p7_db"], "below", "lower"
+    else:
+        end, factor, beyond, way, which = hi, 1.4, -answer["loss_at_1p4_db"], "above", "upper"
+    rises = f", and still rises {way} it: {beyond:.2f} dB more at {factor * end:.0f} ohm" if beyond >= 0.005 else ""
+    return (
+        f"no optimum of {figure} within the {lo:.0f}-{hi:.0f} ohm searched (it is highest at the range's {which} "
+        f"end, {end:.0f} ohm, {answer['figure_db']:.1f} dB{rises}), so that end is given, not an optimum"
     )
 
 
 def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
     """The answer of a resistor chosen under the sky: its statistic read off the resistors tried (interpolated in
-    log R for 0.7x, 1.4x and the E12 value)."""
+    log R for 0.7x, 1.4x and the E12 value; nothing is known beyond them, so there the loss reads 0)."""
+    from snrgain.antennas.longwire import search_bound
     from snrgain.decide.build import nearest_standard_ohm
 
     rs, fig = np.log(sky["values_ohm"]), np.asarray(sky["figure_db"])
@@ -269,6 +299,8 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         top - db(0.7 * best),
         top - db(1.4 * best),
         sky["target"],
+        at_bound=search_bound(best, sky["values_ohm"]),
+        search_ohm=(float(min(sky["values_ohm"])), float(max(sky["values_ohm"]))),
     )
 
 
