@@ -327,3 +327,17 @@ def test_the_site_plan_draws_a_switched_array_once_and_a_reversible_wire_both_wa
     wires = [a for a in plan["antennas"] if a["name"].startswith("rev")]
     assert [p["kind"] for a in wires for p in a["parts"]] == ["wire", "wire"]
     assert not any("shown_as" in a for a in wires)
+
+
+def test_a_flag_switches_front_and_back_only():
+    """A terminated loop is one loop whose feed and resistor swap sides: two bearings 180 deg apart; three bearings,
+    or two not opposite, need other loops (relays cannot turn a loop's plane)."""
+    flag = {"name": "flag", "family": "terminated-loop", "width": "8 m", "loop_height": "4 m"}
+    for directions in (["45 deg", "150 deg", "330 deg"], [45, 135]):
+        problems = problems_of(scenario({**flag, "directions": directions}))
+        said = problems['candidate 1 ("flag").directions']
+        assert "180 deg apart" in said and "feed and resistor swap" in said
+    from snrgain.scenario import load
+
+    sc = load(scenario({**flag, "directions": [45, 225]}))  # front and back: one loop
+    assert [a.name for a in sc.candidates] == ["flag NE (45 deg)", "flag SW (225 deg)"]

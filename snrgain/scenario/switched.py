@@ -248,17 +248,19 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
     if why:
         return [], [(key, f"{toml_repr(directions)}: {why}")]
     how = "steered" if family.build.phased else "turned"
-    if family.build.long_wire:
+    swapped = not (family.build.phased or family.build.long_wire) and "termination" in family.params.model_fields
+    if family.build.long_wire or swapped:
         apart = abs((np.degrees(bearings[1] - bearings[0]) + 180.0) % 360.0 - 180.0)
         if len(bearings) != 2 or abs(apart - 180.0) > 0.05:
+            one = "wire served from either end" if family.build.long_wire else "loop whose feed and resistor swap sides"
             return [], [
                 (
                     key,
-                    f"{toml_repr(directions)}: a {family.name} is one wire served from either end, so its directions "
-                    'are two bearings 180 deg apart (e.g. ["45 deg", "225 deg"]); for other bearings write other wires',
+                    f"{toml_repr(directions)}: a {family.name} is one {one}, so its directions are two bearings 180 "
+                    'deg apart (e.g. ["45 deg", "225 deg"]); for other bearings write other antennas',
                 )
             ]
-        how = "port" if "port" in family.params.model_fields else "ends"
+        how = "turned" if swapped else "port" if "port" in family.params.model_fields else "ends"
     degs = [float(np.degrees(b)) % 360.0 for b in bearings]
     labels = tuple(state_label(d) if n is None else named_label(n, d) for n, d in zip(state_names, degs))
     group = spec.get("name")
