@@ -147,3 +147,24 @@ def test_a_move_onto_an_antenna_is_left_out(tmp_path):
     for n in said:
         assert n.values["directions"] == ["east", "south", "west"]
         assert "moved 5 m east, south or west" in notice_text(n)
+
+
+def test_a_level_read_on_a_candidate_moves_the_reference_once(tmp_path):
+    """The level read on the flag 18 m from the source: moving the source changes what the flag hears, so the
+    source's strength read there, so the reference's noise and every gain over it. Said once, of the reference,
+    with the antenna it was read on; the Beverage 150 m off, whose own noise stays, is not named for it."""
+    text = FIXED.replace('level = "S6"', 'level = "S9"\nread_on = "flag north"')
+    sc, results, r = _decided(text, tmp_path)
+    src = next(s for s in sc.noise.local if s.position_m is not None)
+    noise = sp.noise_shifts_db(sc, list(sc.antennas), results, src)
+    names = [a.name for a in sc.antennas]
+    assert np.all(np.abs(noise[:, names.index("flag north")]) < 0.05)  # the level stays read there
+    assert np.nanmax(np.abs(noise[:, 0])) >= sp.SHIFT_DB
+    said = [n for n in r.notices if n.code == "source-position"]
+    assert [n.antenna for n in said] == ["TX vertical"]
+    v = said[0].values
+    assert v["reference"] and v["read_on"] == "flag north"
+    assert (v["low_db"], v["high_db"]) == pytest.approx((np.nanmin(noise[:, 0]), np.nanmax(noise[:, 0])))
+    assert notice_text(said[0]).startswith(
+        "TX vertical (the reference): every SNR gain over it rests on exactly where 'barn light' stands"
+    )

@@ -63,11 +63,12 @@ def moves(sc, antennas: list, src, step_m: float = DISPLACEMENT_M) -> list[tuple
     return out
 
 
-def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
-    """The change of each antenna's SNR gain [dB] with ``src`` moved ``step_m`` along each of DIRECTIONS: shape
-    (directions, antennas), the reference's column 0 (its gain over itself stays 0); NaN for a move :func:`moves`
-    leaves out.  The source's level stays where it is anchored: a level read on an antenna (``read_on``, the
-    reference by default) stays read there; an Fa stays the Fa where it was measured (pickup's shares carry it)."""
+def noise_shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
+    """The change of each antenna's noise [dB] (at the receiver input, its chain's floor counted) with ``src``
+    moved ``step_m`` along each of DIRECTIONS: shape (directions, antennas); NaN for a move :func:`moves` leaves
+    out.  The source's level stays where it is anchored: a level read on an antenna (``read_on``, the reference by
+    default) stays read there, so that antenna's noise stays; an Fa stays the Fa where it was measured (pickup's
+    shares carry it)."""
     from snrgain.model.placed import pickup
 
     names = [a.name for a in antennas]
@@ -80,9 +81,15 @@ def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEME
         got, _ = pickup(_with_source(sc, moved), antennas)
         s0, s1 = base[src.name], got[moved.name]
         ratio = s1 / s0 if anchor is None else (s1 / s1[anchor]) / (s0 / s0[anchor])
-        noise_db = 10 * np.log10(np.maximum(1.0 + share * (ratio - 1.0), 1e-30))
-        out[i] = noise_db[0] - noise_db
+        out[i] = 10 * np.log10(np.maximum(1.0 + share * (ratio - 1.0), 1e-30))
     return out
+
+
+def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
+    """The change of each antenna's SNR gain [dB] with ``src`` moved (:func:`noise_shifts_db`): the reference's
+    noise change less the antenna's (the signal stays); the reference's column 0."""
+    noise = noise_shifts_db(sc, antennas, results, src, step_m)
+    return noise[:, :1] - noise
 
 
 def _with_source(sc, src):
@@ -91,11 +98,15 @@ def _with_source(sc, src):
 
 
 def source_position_notices(sc, results: list) -> list[Notice]:
-    """``source-position`` (source, step_m, directions, low_db, high_db, share) for each candidate whose SNR gain
-    moves by SHIFT_DB or more when a placed source moves DISPLACEMENT_M (module docstring): directions the moves
-    taken (:func:`moves`), low and high the least and most of its changes over them, share the source's share of
-    its noise where it stands; a switched antenna once, by the state that moves most (``state``, and ``states`` how
-    many of them move that much)."""
+    """``source-position`` notices for each placed source (module docstring); values source, step_m, directions
+    (the moves taken, :func:`moves`), low_db and high_db (the least and most change over them), share:
+
+    - for a candidate whose own noise moves by SHIFT_DB or more and whose SNR gain moves by SHIFT_DB or more: the
+      change of its SNR gain, share the source's share of its noise; a switched antenna once, by the state that
+      moves most (``state``, and ``states`` how many of them move that much);
+    - for the reference (once) where its own noise moves by SHIFT_DB or more (the level read on another antenna,
+      ``read_on``, or an Fa measured elsewhere): the change of its noise, ``read_on`` the antenna the level was read
+      on (None: an Fa): every SNR gain over it moves with that."""
     placed = [s for s in sc.noise.local if s.position_m is not None]
     if not placed:
         return []
@@ -104,36 +115,56 @@ def source_position_notices(sc, results: list) -> list[Notice]:
     results = [by_name.get(a.name) for a in antennas]
     if any(r is None for r in results):
         return []  # results of other antennas than the scenario's (not the pipeline's own)
-    from snrgain.scenario.switched import switched_state
-
     out = []
     for src in placed:
-        shifts = shifts_db(sc, antennas, results, src)
-        groups: dict[str, list] = {}  # a switched antenna's states: one notice, by the state that moves most
-        taken = [DIRECTION_NAMES[i] for i in range(len(DIRECTIONS)) if np.isfinite(shifts[i, 0])]
+        noise = noise_shifts_db(sc, antennas, results, src)
+        taken = [DIRECTION_NAMES[i] for i in range(len(DIRECTIONS)) if np.isfinite(noise[i, 0])]
         if not taken:
             continue
-        for k in range(1, len(antennas)):
-            low, high = float(np.nanmin(shifts[:, k])), float(np.nanmax(shifts[:, k]))
-            if max(abs(low), abs(high)) < SHIFT_DB:
-                continue
-            values = {
-                "source": src.name,
-                "step_m": DISPLACEMENT_M,
-                "directions": taken,
-                "low_db": low,
-                "high_db": high,
-                "share": float(source_shares(results[k], src.name) or 0.0),
-            }
-            sw = switched_state(antennas[k])
-            if sw is None:
-                out.append(Notice("source-position", antennas[k].name, values))
-            else:
-                groups.setdefault(sw.group, []).append({**values, "state": sw.state})
-        for group, states in groups.items():
-            worst = max(states, key=lambda v: max(abs(v["low_db"]), abs(v["high_db"])))
-            out.append(Notice("source-position", group, {**worst, "states": len(states)}))
+        head = {"source": src.name, "step_m": DISPLACEMENT_M, "directions": taken}
+        ref = _range(noise[:, 0])
+        if max(map(abs, ref)) >= SHIFT_DB:
+            reader = src.read_on if src.level_dbm is not None else None
+            values = {**head, "low_db": ref[0], "high_db": ref[1], "share": _share(results[0], src), "read_on": reader}
+            out.append(Notice("source-position", antennas[0].name, {**values, "reference": True}))
+        gain = noise[:, :1] - noise
+        moving = [
+            k
+            for k in range(1, len(antennas))
+            if max(map(abs, _range(noise[:, k]))) >= SHIFT_DB and max(map(abs, _range(gain[:, k]))) >= SHIFT_DB
+        ]
+        out += _by_antenna(antennas, moving, [{**head, **_gain_values(gain[:, k], results[k], src)} for k in moving])
     return out
 
 
-__all__ = ["moves", "shifts_db", "source_position_notices", "source_shares"]
+def _range(values) -> tuple[float, float]:
+    return float(np.nanmin(values)), float(np.nanmax(values))
+
+
+def _share(result, src) -> float:
+    return float(source_shares(result, src.name) or 0.0)
+
+
+def _gain_values(gain, result, src) -> dict:
+    low, high = _range(gain)
+    return {"low_db": low, "high_db": high, "share": _share(result, src)}
+
+
+def _by_antenna(antennas, moving: list[int], values: list[dict]) -> list[Notice]:
+    """A notice per candidate of ``moving``; a switched antenna's states in one, by the state that moves most."""
+    from snrgain.scenario.switched import switched_state
+
+    out, groups = [], {}
+    for k, v in zip(moving, values):
+        sw = switched_state(antennas[k])
+        if sw is None:
+            out.append(Notice("source-position", antennas[k].name, v))
+        else:
+            groups.setdefault(sw.group, []).append({**v, "state": sw.state})
+    for group, states in groups.items():
+        worst = max(states, key=lambda v: max(abs(v["low_db"]), abs(v["high_db"])))
+        out.append(Notice("source-position", group, {**worst, "states": len(states)}))
+    return out
+
+
+__all__ = ["moves", "noise_shifts_db", "shifts_db", "source_position_notices", "source_shares"]

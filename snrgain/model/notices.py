@@ -34,8 +34,9 @@ class Notice:
     front_to_back_drawn_db: their 10, 50 and 90 % points with the phasing lines cut with a cable's usual errors,
     longest_delay_ns, longest_error_ns, velocity_factor_error, length_error_m, draws: an array whose figures rest on
     lines cut closer than that, a switched one once with state and states; snrgain.decide.tolerance),
-    ``source-position`` (source, step_m, directions, low_db, high_db, share: a candidate whose SNR gain moves by
-    3 dB or more when a placed source moves step_m; snrgain.decide.source_place).
+    ``source-position`` (source, step_m, directions, low_db, high_db, share: a candidate whose noise and SNR gain
+    move by 3 dB or more when a placed source moves step_m; with reference and read_on, the reference whose own
+    noise moves that much; snrgain.decide.source_place).
     """
 
     code: str

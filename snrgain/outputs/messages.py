@@ -154,14 +154,22 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "elements wider"
         )
     if n.code == "source-position":
+        moved = f"moved {length_text(v['step_m'], unit, 0)} {_either(v['directions'])}"
+        if v.get("reference"):
+            where = f"read on {v['read_on']!r}" if v.get("read_on") else "given as its Fa where it was measured"
+            return (
+                f"{n.antenna} (the reference): every SNR gain over it rests on exactly where {v['source']!r} stands: "
+                f"{moved}, with its level {where}, the reference's own noise changes by {signed_text(v['low_db'])} to "
+                f"{signed_text(v['high_db'])} dB, and every antenna's gain over it with that. Place the source where "
+                "it radiates from, or read its level on an antenna that hears it well (not in a null)"
+            )
         which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         return (
-            f"{n.antenna}{which}: its SNR gain rests on exactly where {v['source']!r} stands: moved "
-            f"{length_text(v['step_m'], unit, 0)} {_either(v.get('directions', ['north', 'east', 'south', 'west']))}"
-            ", with this antenna's resistor and phasing as chosen now, the gain changes by "
-            f"{signed_text(v['low_db'])} to {signed_text(v['high_db'])} dB (that source is "
-            f"{100 * v['share']:.0f} % of its noise where it stands now). Place the source where it radiates from "
-            "(its wiring, not the building's middle), or take this antenna's figure as that uncertain"
+            f"{n.antenna}{which}: its SNR gain rests on exactly where {v['source']!r} stands: {moved}, with this "
+            f"antenna's resistor and phasing as chosen now, the gain changes by {signed_text(v['low_db'])} to "
+            f"{signed_text(v['high_db'])} dB (that source is {100 * v['share']:.0f} % of its noise where it stands "
+            "now). Place the source where it radiates from (its wiring, not the building's middle), or take this "
+            "antenna's figure as that uncertain"
         )
     if n.code == "local-source-dominates":
         rest = (
