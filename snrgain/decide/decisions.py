@@ -27,8 +27,9 @@ def main_lobe_deg(antenna, freq_hz: float) -> float | None:
     return float(az[int(np.argmax(g))])
 
 
-def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
-    """What the user should know about the results, as codes and numbers."""
+def notices(sc: Scenario, antennas: list[AntennaResult], plan=None) -> list[Notice]:
+    """What the user should know about the results, as codes and numbers (``plan``: the station plan, whose
+    switched antennas' states a notice on one of them prefers)."""
     out = []
     for r in antennas:
         if r.receiver_limited:
@@ -67,7 +68,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult]) -> list[Notice]:
     out.extend(fragile_termination_notices(sc))
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
-    out.extend(phasing_tolerance_notices(sc))
+    out.extend(phasing_tolerance_notices(sc, None if plan is None else plan.states))
     from snrgain.decide.source_place import source_position_notices
 
     out.extend(source_position_notices(sc, antennas))
@@ -218,7 +219,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         plan=plan,
         uncertainty=_uncertainty_dict(sc),
         beat_by_db=sc.uncertainty.beat_by_db,
-        notices=notices(sc, [reference, *candidates]),
+        notices=notices(sc, [reference, *candidates], plan),
         tx_vertical=_tx_rows(sc),
         cuts=cuts,
         lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),

@@ -18,7 +18,10 @@ Journal 34, 1955, cited from memory); here it is measured on the array itself, a
   aiming elevation are worked for each (the RDF over the HEALPix hemisphere of NSIDE);
 - the notice is given where one build in ten (the draws' 10 % point) loses RDF_LOSS_DB or more of RDF, or loses
   FRONT_TO_BACK_LOSS_DB or more of front-to-back and keeps less than FRONT_TO_BACK_KEPT_DB (snrgain's thresholds: a
-  rear null steered to be exact always loses depth, but one that keeps 20 dB still does its work).  Front-to-back is
+  rear null steered to be exact always loses depth, but one that keeps 15 dB still does its work);
+- where phase-reversing transformers giving some elements their 180 deg shorten the longest line to under three
+  quarters of it, the same is worked for that build (the trade's way with a four-square, common practice): the
+  warning says what it keeps.  Front-to-back is
   read up to FRONT_TO_BACK_CAP_DB: an exact null says "over 40 dB", a depth no real array holds across its elements'
   differences.
 
@@ -45,9 +48,11 @@ DRAWS = 64
 NSIDE = 16
 RDF_LOSS_DB = 1.0
 FRONT_TO_BACK_LOSS_DB = 6.0
-FRONT_TO_BACK_KEPT_DB = 20.0
+FRONT_TO_BACK_KEPT_DB = 15.0
 FRONT_TO_BACK_CAP_DB = 40.0
 QUANTILES = (0.1, 0.5, 0.9)
+SHORTER = 0.75
+"""Phase-reversing transformers are offered where they bring the longest line under this share of its length."""
 
 
 def line_errors_s(delays_s: np.ndarray, draws: int = DRAWS, seed: int = 0) -> np.ndarray:
@@ -99,26 +104,48 @@ def _quantiles(values) -> np.ndarray:
     return np.interp(np.asarray(QUANTILES) * (v.size - 1), np.arange(v.size), v)
 
 
+def reversed_lines_s(delays_s, freq_hz: float) -> np.ndarray:
+    """The lines' delays [s] where phase-reversing transformers give any element its 180 deg: each delay taken
+    modulo half a period, and the common start moved to the widest gap between them, so the longest line is as
+    short as it can be (the trade's way with a four-square's 180 and 270 deg elements, common practice): what is
+    left of each delay then lies under half a period."""
+    half = 0.5 / freq_hz
+    r = np.mod(np.asarray(delays_s, dtype=float), half)
+    s = np.sort(r)
+    gaps = np.diff(np.concatenate([s, [s[0] + half]]))
+    start = s[(int(np.argmax(gaps)) + 1) % s.size]
+    out = np.mod(r - start, half)
+    return np.where(out > half - 1e-15, 0.0, out)  # rounding at the wrap
+
+
+def _drawn(antenna, freq_hz: float, delays_s, front) -> tuple[np.ndarray, np.ndarray]:
+    """The 10, 50 and 90 % points of RDF and of front-to-back (capped) over the draws of errors of lines of
+    ``delays_s``."""
+    w0 = antenna.weights_at(freq_hz)
+    omega = 2 * np.pi * freq_hz
+    drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e), front) for e in line_errors_s(delays_s)])
+    return _quantiles(drawn[:, 0]), _quantiles(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB))
+
+
+def _sigma_s(longest_s: float) -> float:
+    return float(np.hypot(VELOCITY_FACTOR_ERROR * longest_s, LENGTH_ERROR_M / (CUT_VELOCITY_FACTOR * C_M_PER_S)))
+
+
 def tolerance(antenna, freq_hz: float) -> dict | None:
     """The array's RDF and front-to-back as steered and their 10, 50 and 90 % points over the draws of
-    :func:`line_errors_s` (the longest line's delay and its 1-sigma error too); None for an antenna without phasing
-    lines (not an array of at least two elements fed through delays)."""
+    :func:`line_errors_s` on its lines as the build sheet gives them (the longest line's delay and its 1-sigma
+    error too), and where phase-reversing transformers bring the longest line under SHORTER of its length, the same
+    with them (``reversed``: :func:`reversed_lines_s`); None for an antenna without phasing lines (not an array of
+    at least two elements fed through delays)."""
     if getattr(antenna, "composite", False) or not hasattr(antenna, "effective_delays_s"):
         return None
     if len(getattr(antenna, "elements", ())) < 2:
         return None
-    w0 = antenna.weights_at(freq_hz)
     delays = antenna.effective_delays_s(freq_hz)
     front = front_of(antenna, freq_hz)
     rdf0, fb0 = figures(antenna, freq_hz, front=front)
-    errors = line_errors_s(delays)
-    omega = 2 * np.pi * freq_hz
-    drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e), front) for e in errors])
-    rdf_q = _quantiles(drawn[:, 0])
-    fb_q = _quantiles(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB))
-    longest = float(np.max(delays))
-    sigma = float(np.hypot(VELOCITY_FACTOR_ERROR * longest, LENGTH_ERROR_M / (CUT_VELOCITY_FACTOR * C_M_PER_S)))
-    return {
+    rdf_q, fb_q = _drawn(antenna, freq_hz, delays, front)
+    out = {
         "bearing_deg": float(np.degrees(front[0])) % 360.0,
         "elevation_deg": float(np.degrees(front[1])),
         "freq_hz": float(freq_hz),
@@ -126,28 +153,43 @@ def tolerance(antenna, freq_hz: float) -> dict | None:
         "front_to_back_db": min(fb0, FRONT_TO_BACK_CAP_DB),
         "rdf_drawn_db": [float(x) for x in rdf_q],
         "front_to_back_drawn_db": [float(x) for x in fb_q],
-        "longest_delay_ns": longest * 1e9,
-        "longest_error_ns": sigma * 1e9,
+        "longest_delay_ns": float(np.max(delays)) * 1e9,
+        "longest_error_ns": _sigma_s(float(np.max(delays))) * 1e9,
         "velocity_factor_error": VELOCITY_FACTOR_ERROR,
         "length_error_m": LENGTH_ERROR_M,
         "draws": DRAWS,
+        "reversed": None,
     }
+    short = reversed_lines_s(delays, freq_hz)
+    if float(np.max(short)) < SHORTER * float(np.max(delays)):
+        rdf_r, fb_r = _drawn(antenna, freq_hz, short, front)
+        out["reversed"] = {
+            "longest_delay_ns": float(np.max(short)) * 1e9,
+            "rdf_drawn_db": [float(x) for x in rdf_r],
+            "front_to_back_drawn_db": [float(x) for x in fb_r],
+        }
+    return out
 
 
-def asks_for_precision(t: dict) -> bool:
+def asks_for_precision(t: dict, drawn: dict | None = None) -> bool:
     """Whether one build in ten (the draws' 10 % point) loses RDF_LOSS_DB of RDF, or loses FRONT_TO_BACK_LOSS_DB of
-    front-to-back and keeps less than FRONT_TO_BACK_KEPT_DB."""
-    rdf_loss = t["rdf_db"] - t["rdf_drawn_db"][0]
-    fb_kept = t["front_to_back_drawn_db"][0]
+    front-to-back and keeps less than FRONT_TO_BACK_KEPT_DB: of the lines as the build sheet gives them, or of the
+    draws ``drawn`` (``t["reversed"]``) against the same figures as steered."""
+    d = t if drawn is None else drawn
+    rdf_loss = t["rdf_db"] - d["rdf_drawn_db"][0]
+    fb_kept = d["front_to_back_drawn_db"][0]
     return rdf_loss >= RDF_LOSS_DB or (
         t["front_to_back_db"] - fb_kept >= FRONT_TO_BACK_LOSS_DB and fb_kept < FRONT_TO_BACK_KEPT_DB
     )
 
 
-def phasing_tolerance_notices(sc) -> list[Notice]:
+def phasing_tolerance_notices(sc, planned: dict | None = None) -> list[Notice]:
     """``phasing-tolerance`` (the values of :func:`tolerance`) for each candidate array whose figures rest on its
     phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`); a switched array
-    once, by the state that loses most RDF in one build in ten (``state``, and ``states`` how many of them ask)."""
+    once, by the state that loses most RDF in one build in ten among those the station plan uses (``planned``: the
+    plan's states by group, snrgain.decide.plan.Plan.states), else among all (``state``, and ``states`` how many of
+    them ask).  ``reversed_keeps`` says whether the build with phase-reversing transformers keeps its figures (it
+    does not ask for precision)."""
     from snrgain.scenario.switched import switched_state
 
     out: list[Notice] = []
@@ -156,14 +198,16 @@ def phasing_tolerance_notices(sc) -> list[Notice]:
         t = tolerance(ant, sc.freq_hz)
         if t is None or not asks_for_precision(t):
             continue
+        t["reversed_keeps"] = t["reversed"] is not None and not asks_for_precision(t, t["reversed"])
         sw = switched_state(ant)
         if sw is None:
             out.append(Notice("phasing-tolerance", ant.name, t))
         else:
             groups.setdefault(sw.group, []).append((sw.state, t))
     for group, states in groups.items():  # the state losing most RDF; of equal RDF, most front-to-back
+        used = [st for st in states if f"{group} {st[0]}" in (planned or {}).get(group, ())]
         state, t = max(
-            states,
+            used or states,
             key=lambda st: (
                 round(st[1]["rdf_db"] - st[1]["rdf_drawn_db"][0], 2),
                 st[1]["front_to_back_db"] - st[1]["front_to_back_drawn_db"][0],
@@ -173,4 +217,12 @@ def phasing_tolerance_notices(sc) -> list[Notice]:
     return out
 
 
-__all__ = ["asks_for_precision", "figures", "line_errors_s", "phasing_tolerance_notices", "tolerance"]
+__all__ = [
+    "asks_for_precision",
+    "figures",
+    "front_of",
+    "line_errors_s",
+    "phasing_tolerance_notices",
+    "reversed_lines_s",
+    "tolerance",
+]

@@ -139,7 +139,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         rdf, fb = v["rdf_drawn_db"], v["front_to_back_drawn_db"]
         cap = "over " if v["front_to_back_db"] >= 40.0 else ""
         which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
-        return (
+        text = (
             f"{n.antenna}{which}: its phasing asks for precision: with the lines cut by a velocity factor typically "
             f"{100 * v['velocity_factor_error']:.0f} % off and each line typically "
             f"{length_text(v['length_error_m'], unit, 1)} off (one standard deviation; the longest line, "
@@ -148,10 +148,21 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"its RDF toward {v['bearing_deg']:.0f} deg at {v['elevation_deg']:.0f} deg elevation, {v['rdf_db']:.1f} "
             f"dB, becomes {rdf[0]:.1f} to {rdf[2]:.1f} dB (median {rdf[1]:.1f}) and its "
             f"front-to-back of {cap}{v['front_to_back_db']:.0f} dB becomes {fb[0]:.0f} to {fb[2]:.0f} dB (median "
-            f"{fb[1]:.0f}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure). Trim "
-            "each phasing line to its delay measured at the "
-            "operating frequency, not to a length from the printed velocity factor (common practice), or space the "
-            "elements wider"
+            f"{fb[1]:.0f}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure; said "
+            "where that build loses 1 dB of RDF, or 6 dB of front-to-back down to under 15 dB)."
+        )
+        rev = v.get("reversed")
+        if rev is not None:
+            keeps = "keeps" if v.get("reversed_keeps") else "still gives"
+            text += (
+                f" Built with phase-reversing transformers giving elements their 180 deg (the lines then at most "
+                f"{rev['longest_delay_ns']:.0f} ns), one build in ten {keeps} RDF "
+                f"{rev['rdf_drawn_db'][0]:.1f} dB and front-to-back {rev['front_to_back_drawn_db'][0]:.0f} dB: the "
+                "usual way to build it (common practice)."
+            )
+        return text + (
+            " Trim each phasing line to its delay measured at the operating frequency, not to a length from the "
+            "printed velocity factor (common practice)"
         )
     if n.code == "source-position":
         moved = f"moved {length_text(v['step_m'], unit, 0)} {_either(v['directions'])}"
