@@ -55,14 +55,19 @@ def _place_of(part, old: list, antennas: list) -> int:
 def sky_forms(sc: Scenario, skies, ant, k: int):
     """(signal, noise, target index) quadratic forms of an antenna's element weights under the sky: the noise
     averaged over the scenario's months and hours plus the chain's noise on the combiner's normalisation, the
-    signal toward the target nearest its bearing (snrgain.antennas.steering)."""
+    signal toward the target nearest its bearing (snrgain.antennas.steering).  A placed source enters an array's
+    noise as its elements hear it where they stand (:func:`placed_forms`), as the products take it, not as a spot
+    on the sky at its bearing from the reference."""
     from snrgain.antennas.steering import quadratic_form
 
+    placed = {} if ant.composite else placed_forms(sc, skies, ant)
     # The form is linear in the brightness: the maps on one set of directions are summed over components, months
     # and hours first, and each set's form made once.
     brightness: dict[int, list] = {}
     for comps in skies.maps.values():
         for c in comps:
+            if c.name in placed:
+                continue
             held = brightness.setdefault(id(c.directions), [c.directions, 0.0])
             held[1] = held[1] + c.weight_k_sr
     noise = 0
@@ -70,10 +75,56 @@ def sky_forms(sc: Scenario, skies, ant, k: int):
         responses = ant.element_responses(sc.freq_hz, directions.azimuth_rad, directions.elevation_rad)
         noise = noise + quadratic_form(*responses, total / (4 * np.pi))
     noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
+    for form in placed.values():
+        noise = noise + form
     ti = nearest_target(sc, ant.params.bearing)
     t = sc.targets[ti]
     signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
     return signal, noise, ti
+
+
+def placed_forms(sc: Scenario, skies, ant) -> dict:
+    """Each placed source's quadratic form in an array's element weights (name -> (N, N)): the reference's
+    temperature from it (its sky component through the reference's pattern, averaged over the months and hours)
+    times the array's share of it, P_A / P_ref with the pickup's own scaling (snrgain.model.placed.pickup: a level
+    read elsewhere, an Fa measured elsewhere), P_A(w) = sum over the source's dipoles of |sum_i w_i a_i|^2 on the
+    combiner's normalisation: a_i what element i alone delivers per unit weight, from where it stands (its near
+    field, through its own currents).  Empty for an array that stands nowhere in particular."""
+    from snrgain.antennas.steering import quadratic_form
+    from snrgain.model import placed as pl
+    from snrgain.model.scatter import bare
+
+    sources = [s for s in sc.noise.local if s.position_m is not None]
+    if not sources or not pl.has_place(ant) or not hasattr(ant, "with_weights"):
+        return {}
+    f, ref = sc.freq_hz, sc.antennas[0]
+    ref_m = ref.params.position or (0.0, 0.0)
+    own = bare(ant)
+    n = len(own.elements)
+    q = np.real(np.diag(own.norm_matrix(f)))
+    units = [own.with_weights(f, np.eye(n)[i], "one element") for i in range(n)]
+    out = {}
+    for src in sources:
+        shares, powers = pl.pickup(replace(sc, noise=replace(sc.noise, local=(src,))), [ref])
+        t_ref = np.mean(
+            [
+                float(np.dot(ref.gain_linear(f, c.directions.azimuth_rad, c.directions.elevation_rad), c.weight_k_sr))
+                / (4 * np.pi)
+                for comps in skies.maps.values()
+                for c in comps
+                if c.name == src.name
+            ]
+        )
+        scale = t_ref * float(shares[src.name][0] / powers[src.name][0])
+        form = 0
+        for kind, _ in pl.dipoles(src):
+            amps = (
+                np.array([pl.received_amplitudes(u, src, f, ref_m, sc.site.ground, kind=kind) for u in units])
+                * np.sqrt(q)[:, None]
+            )
+            form = form + quadratic_form(amps[:, :1], amps[:, 1:])
+        out[src.name] = scale * form
+    return out
 
 
 def steer(sc: Scenario, grid, skies) -> Scenario:
