@@ -39,14 +39,15 @@ def test_independent_phase_errors_fill_a_null_as_gilbert_and_morgan_say():
     """Random phase errors of sigma rad on each element (independent, normal) leave the expected power toward a
     direction at |sum w a|^2 e^{-sigma^2} + (1 - e^{-sigma^2}) sum |w a|^2 (E. N. Gilbert and S. P. Morgan, Bell
     System Technical Journal 34, 1955; from memory, and the expectation E[e^{j d}] = e^{-sigma^2/2} of a normal d).
-    Toward an exact rear null the first term vanishes: the mean gain there is the second, which the model's array
-    with its weights turned by the errors (Array.with_weights, as the notice turns them) must give."""
+    Toward a deep rear null the first term is nearly gone and the second fills it: the model's array with its
+    weights turned by the errors (Array.with_weights, as the notice turns them) must give both."""
     ant = _square(15.0, auto_for="front_to_back")
     w0 = ant.weights_at(F)
     b = float(ant.params.bearing)
     el = float(ant.params.auto_elevation)
     az, els = np.array([b + np.pi]), np.array([el])
-    assert ant.gain_linear(F, az, els)[0] < 1e-8 * ant.gain_linear(F, np.array([b]), els)[0]  # an exact null
+    nominal = ant.gain_linear(F, az, els)[0]
+    assert nominal < 1e-4 * ant.gain_linear(F, np.array([b]), els)[0]  # a null over 40 dB deep
     elem = ant.elements[0].gain_linear(F, az, els)[0]
     a = ant.element_amplitudes(F)  # the weights over the combiner's norm
     sigma = 0.05
@@ -55,8 +56,9 @@ def test_independent_phase_errors_fill_a_null_as_gilbert_and_morgan_say():
         ant.with_weights(F, w0 * np.exp(-1j * d), "test").gain_linear(F, az, els)[0]
         for d in rng.normal(0.0, sigma, size=(3000, 4))
     ]
-    expected = (1 - np.exp(-(sigma**2))) * float(np.sum(np.abs(a) ** 2)) * elem
-    assert np.mean(back) == pytest.approx(expected, rel=0.08)
+    fill = (1 - np.exp(-(sigma**2))) * float(np.sum(np.abs(a) ** 2)) * elem
+    assert fill > 10 * nominal  # the errors, not the null left, set the mean
+    assert np.mean(back) == pytest.approx(nominal * np.exp(-(sigma**2)) + fill, rel=0.08)
 
 
 def test_no_error_no_change_and_the_draws_are_the_same_every_run():
@@ -91,8 +93,9 @@ def test_a_superdirective_square_asks_for_precision_and_a_quarter_wave_one_does_
 
 def test_an_exact_null_reads_over_40_db_and_is_said_only_when_little_of_it_stays():
     t = tol.tolerance(_square(41.0, auto_for="front_to_back"), F)
-    assert t["front_to_back_db"] == tol.FRONT_TO_BACK_CAP_DB and t["front_to_back_drawn_db"][0] >= 20.0
-    assert not tol.asks_for_precision(t)  # 40 dB and more becomes 20-40 dB: still a null
+    assert t["front_to_back_db"] == tol.FRONT_TO_BACK_CAP_DB
+    assert t["front_to_back_drawn_db"][0] >= tol.FRONT_TO_BACK_KEPT_DB
+    assert not tol.asks_for_precision(t)  # 40 dB and more becomes 15-40 dB: still a null
     small = tol.tolerance(_square(10.0, auto_for="front_to_back"), F)
     assert small["front_to_back_drawn_db"][0] < tol.FRONT_TO_BACK_KEPT_DB and tol.asks_for_precision(small)
 

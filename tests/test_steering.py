@@ -234,3 +234,23 @@ def test_given_phases_and_their_delays_agree_in_describe():
     d = a.describe()
     assert d["phases_deg"] == pytest.approx([0.0, 300.0])
     assert d["delays_ns"][1] == pytest.approx(300.0 / 360.0 / F * 1e9)
+
+
+@pytest.mark.parametrize("side_m", [20.0, 41.0])
+def test_front_to_back_steering_keeps_the_lobe_forward(side_m):
+    """A four-square has many phasings that null its back; steered for front-to-back it takes the one with the most
+    gain forward (snrgain.antennas.steering.FB_MEAN): a null over 30 dB deep, the main lobe within 20 deg of the
+    bearing and the RDF within 1 dB of the RDF steering's (without it a 20 m square leant 23 deg at 3 dB less)."""
+    base = {
+        "family": "phased-verticals",
+        "positions": [[0, 0], [side_m, 0], [0, side_m], [side_m, side_m]],
+        "height": "6 m",
+        "bearing": 45,
+        "ground": "moist loam",
+    }
+    fb, rdf = from_spec({**base, "auto_for": "front_to_back"}), from_spec(base)
+    assert _fb(fb, 45) > 30.0
+    az = np.arange(0.0, 360.0, 1.0)
+    lobe = az[int(np.argmax(fb.gain_dbi(F, az, 20.0)))]
+    assert abs((lobe - 45.0 + 180.0) % 360.0 - 180.0) <= 20.0
+    assert _rdf(fb, 45) > _rdf(rdf, 45) - 1.0

@@ -361,9 +361,14 @@ class Array(Antenna):
         if self.auto_for == "front_to_back" and signal is None:
             back = self.element_responses(freq_hz, np.array([p.bearing + np.pi]), np.array([p.auto_elevation]))
             s_f, s_b = st.quadratic_form(*front), st.quadratic_form(*back)
-
-            # G_front / (G_back + FB_FLOOR G_front) is itself a ratio of two forms
-            u = st.best_phases(s_f, s_b + st.FB_FLOOR * s_f, amps, [end_fire])
+            grid = upper_hemisphere(16)
+            s_mean = st.quadratic_form(
+                *self.element_responses(freq_hz, grid.azimuth_rad, grid.elevation_rad),
+                grid.solid_angle_sr / (4 * np.pi),
+            )
+            # G_front / (G_back + FB_FLOOR G_front + FB_MEAN G_mean) is itself a ratio of two forms: of the phases
+            # that null the back, those with the most gain forward over the average (steering.FB_MEAN)
+            u = st.best_phases(s_f, s_b + st.FB_FLOOR * s_f + st.FB_MEAN * s_mean, amps, [end_fire])
             self.set_weights(freq_hz, np.conj(u), note or "front-to-back at the auto elevation")
             return
         if signal is None:
