@@ -244,6 +244,10 @@ def test_rank_build_table():
     out = " ".join(res.stdout.split())  # the terminal table wraps long lines
     assert "Best toward East Asia" in out and "Station plan" in out and "Build sheet" in out
     assert "phasing delays" in out and "of RG-6" in out
+    # each delay beside its element's place, as the scenario writes positions (the pair: the origin, then 13.5 m west
+    # and 16.1 m north)
+    assert "phasing delays, element by element (east, north): at (0.0 m, 0.0 m)" in out
+    assert "at (-13.5 m, 16.1 m)" in out
 
 
 @pytest.mark.parametrize(

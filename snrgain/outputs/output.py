@@ -424,11 +424,17 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 f"{b['practical_mismatch_loss_db']:.2f} dB)"
             )
         if "delays_ns" in b:
+            at = [
+                f"at ({length_text(p[0], unit, 1)}, {length_text(p[1], unit, 1)}) " for p in b.get("positions_m") or []
+            ]
             lines = ", ".join(
-                f"{d:.0f} ns = {length_text(m, unit, 2 if unit == 'm' else 1)}"
-                for d, m in zip(b["delays_ns"], b["phasing_lengths_m"])
+                f"{where}{d:.0f} ns = {length_text(m, unit, 2 if unit == 'm' else 1)}"
+                for where, d, m in zip(at or [""] * len(b["delays_ns"]), b["delays_ns"], b["phasing_lengths_m"])
             )
-            bits.append(f"phasing delays {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})")
+            which = ", element by element (east, north)" if at else ""
+            bits.append(
+                f"phasing delays{which}: {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})"
+            )
             amps = b.get("amplitudes") or []
             if amps and max(amps) - min(amps) > 1e-3:
                 bits.append("amplitudes " + ", ".join(f"{20 * np.log10(x):.1f} dB" if x > 0 else "off" for x in amps))
