@@ -209,6 +209,17 @@ def test_an_array_beside_the_vertical_keeps_its_scatterers_under_turned_weights(
     assert getattr(ant, "scatterers", None), "the square should stand beside the vertical"
     own = tol.figures(ant, F)
     assert tol.figures(ant, F, ant.weights_at(F)) == pytest.approx(own, abs=1e-6)
+    # every draw at once (the response linear in the weights, the vertical's re-radiation too) as one by one
+    front = tol.front_of(ant, F)
+    rng = np.random.default_rng(2)
+    weights = ant.weights_at(F)[None, :] * np.exp(1j * rng.normal(0.0, 0.3, size=(5, 4)))
+    rdf, fb = tol._figures_of_weights(ant, F, weights, front)
+    one_by_one = np.array([tol.figures(ant, F, w, front) for w in weights])
+    np.testing.assert_allclose(rdf, one_by_one[:, 0], atol=1e-9)
+    np.testing.assert_allclose(fb, one_by_one[:, 1], atol=1e-9)
+    plain = _square(20.0)
+    rdf, fb = tol._figures_of_weights(plain, F, weights, tol.front_of(plain, F))
+    np.testing.assert_allclose(rdf, [tol.figures(plain, F, w)[0] for w in weights], atol=1e-9)
 
 
 def test_a_reversing_transformer_shortens_the_lines_and_keeps_a_20_m_square():

@@ -120,11 +120,41 @@ def reversed_lines_s(delays_s, freq_hz: float) -> np.ndarray:
 
 def _drawn(antenna, freq_hz: float, delays_s, front) -> tuple[np.ndarray, np.ndarray]:
     """The 10, 50 and 90 % points of RDF and of front-to-back (capped) over the draws of errors of lines of
-    ``delays_s``."""
+    ``delays_s``, every draw at once (:func:`_figures_of_weights`)."""
     w0 = antenna.weights_at(freq_hz)
     omega = 2 * np.pi * freq_hz
-    drawn = np.array([figures(antenna, freq_hz, w0 * np.exp(-1j * omega * e), front) for e in line_errors_s(delays_s)])
-    return _quantiles(drawn[:, 0]), _quantiles(np.minimum(drawn[:, 1], FRONT_TO_BACK_CAP_DB))
+    weights = w0[None, :] * np.exp(-1j * omega * line_errors_s(delays_s))  # (draws, elements)
+    rdf, fb = _figures_of_weights(antenna, freq_hz, weights, front)
+    return _quantiles(rdf), _quantiles(np.minimum(fb, FRONT_TO_BACK_CAP_DB))
+
+
+def _figures_of_weights(antenna, freq_hz: float, weights: np.ndarray, front) -> tuple[np.ndarray, np.ndarray]:
+    """(RDF [dB], front-to-back [dB]) for each row of ``weights`` (draws, elements), as :func:`figures` gives them
+    one by one.  The array's response is linear in its weights over sqrt(w^H Q w), the transmitting vertical's
+    re-radiation included (it re-radiates what the array's elements hear): each element's own response, the
+    array's with that element's unit weight (times sqrt(Q_ii)), serves every draw."""
+    from snrgain.model.scatter import bare, beside
+
+    grid = upper_hemisphere(NSIDE)
+    b, el = front
+    az = np.concatenate([grid.azimuth_rad, [b, b + np.pi]])
+    els = np.concatenate([grid.elevation_rad, [el, el]])
+    own = bare(antenna)
+    q = own.norm_matrix(freq_hz)
+    n = q.shape[0]
+    cols = []
+    for i in range(n):
+        one = own.with_weights(freq_hz, np.eye(n)[i], "one element")
+        if own is not antenna:
+            one = beside(one, antenna.scatterers)
+        cols.append([r * np.sqrt(q[i, i].real) for r in one.complex_response(freq_hz, az, els)])
+    rv, rh = np.array([c[0] for c in cols]), np.array([c[1] for c in cols])  # (elements, directions)
+    norm = np.real(np.einsum("di,ij,dj->d", weights.conj(), q, weights))
+    ev, eh = np.einsum("di,in->dn", weights, rv), np.einsum("di,in->dn", weights, rh)
+    g = (ev.real**2 + ev.imag**2 + eh.real**2 + eh.imag**2) / norm[:, None]
+    mean = g[:, :-2] @ grid.solid_angle_sr / (4 * np.pi)
+    with np.errstate(divide="ignore"):
+        return 10 * np.log10(g[:, -2] / mean), 10 * np.log10(g[:, -2] / g[:, -1])
 
 
 def _sigma_s(longest_s: float) -> float:
