@@ -149,8 +149,8 @@ def test_a_switched_square_is_named_once(tmp_path):
     said = [n for n in r.notices if n.code == "phasing-tolerance"]
     assert len(said) == 1 and said[0].antenna == "small square"
     v = said[0].values
-    assert v["states"] == 4 and v["state"].endswith("deg)")
-    assert notice_text(said[0]).startswith(f"small square (in 4 of its states; {v['state']} shown): its phasing")
+    assert v["states"] == 4 and v["shown_state"].endswith("deg)")
+    assert notice_text(said[0]).startswith(f"small square (in 4 of its states; {v['shown_state']} shown): its phasing")
     states = {a.name: tol.tolerance(a, sc.freq_hz) for a in load(path).candidates if a.name.startswith("small")}
     assert len(states) == 4
 
@@ -260,4 +260,4 @@ def test_a_switched_array_shows_a_state_the_plan_builds(tmp_path):
     r = snrgain.evaluate(load(path))
     said = next(n for n in r.notices if n.code == "phasing-tolerance")
     used = r.plan.states.get("small square", [])
-    assert used and f"small square {said.values['state']}" in used
+    assert used and f"small square {said.values['shown_state']}" in used

@@ -89,8 +89,8 @@ def test_a_switched_flag_is_named_once(tmp_path):
     _, _, r = _decided(text, tmp_path)
     said = [n for n in r.notices if n.code == "source-position"]
     assert [n.antenna for n in said] == ["flag north"]
-    assert said[0].values["states"] == 2 and said[0].values["state"].endswith("deg)")
-    assert notice_text(said[0]).startswith(f"flag north (in 2 of its states; {said[0].values['state']} shown)")
+    assert said[0].values["states"] == 2 and said[0].values["shown_state"].endswith("deg)")
+    assert notice_text(said[0]).startswith(f"flag north (in 2 of its states; {said[0].values['shown_state']} shown)")
 
 
 FIXED = NEAR.replace(

@@ -341,3 +341,31 @@ def test_a_flag_switches_front_and_back_only():
 
     sc = load(scenario({**flag, "directions": [45, 225]}))  # front and back: one loop
     assert [a.name for a in sc.candidates] == ["flag NE (45 deg)", "flag SW (225 deg)"]
+
+
+def test_a_warning_on_several_states_is_said_once():
+    """A notice of one code on several states of one switched antenna (the receiver's floor, a fragile resistor) is
+    said once, on the antenna, naming how many states and the one shown (the plan's where it builds one)."""
+    from snrgain.decide.decisions import by_switched_antenna
+    from snrgain.model.results import Notice
+    from snrgain.outputs.messages import notice_text
+    from snrgain.scenario import load
+
+    sc = load(scenario({**FOUR_SQUARE, "directions": [f"{b} deg" for b in BEARINGS]}))
+    states = [a.name for a in sc.candidates]
+    values = {
+        "worst_margin_db": 8.0,
+        "margin_target_db": 10.0,
+        "max_snr_loss_db": 0.6,
+        "preamp_gain_db": 2.0,
+        "preamp_position": None,
+    }
+    notes = [Notice("receiver-limited", name, {**values, "worst_margin_db": 8.0 - i}) for i, name in enumerate(states)]
+    notes.append(Notice("man-made-extrapolated", None, {"freq_hz": 1.8e5, "lowest_hz": 3e5}))
+    once = by_switched_antenna(sc, notes, {FOUR_SQUARE["name"]: [states[2]]})
+    assert [n.code for n in once] == ["receiver-limited", "man-made-extrapolated"]
+    n = once[0]
+    assert n.antenna == FOUR_SQUARE["name"] and n.values["states"] == len(states)
+    assert n.values["worst_margin_db"] == 6.0  # the state the plan builds
+    assert notice_text(n).startswith(f"{FOUR_SQUARE['name']} (in {len(states)} of its states; ")
+    assert by_switched_antenna(sc, notes[:1]) == notes[:1]  # one state: as it was

@@ -84,7 +84,35 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None) -> list[Noti
     lowest = p372.MAN_MADE_RANGE_HZ[0]
     if sc.freq_hz < lowest and sc.noise.man_made is not None:
         out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))
-    return out
+    return by_switched_antenna(sc, out, None if plan is None else plan.states)
+
+
+def by_switched_antenna(sc: Scenario, out: list[Notice], planned: dict | None = None) -> list[Notice]:
+    """The notices with those of one code on several states of one switched antenna said once, where the first of
+    them stood: on the antenna (its group name), its values the state's the station plan uses (``planned``: the
+    plan's states by group) or else the first's, with ``shown_state`` and ``states`` (how many of its states the
+    notice concerns).  A notice already said once per antenna (it has ``shown_state``) and one on a single state
+    stay as they are."""
+    from snrgain.scenario.switched import switched_state
+
+    states = {a.name: switched_state(a) for a in sc.candidates}
+    groups: dict[tuple, list[Notice]] = {}
+    for n in out:
+        sw = states.get(n.antenna)
+        if sw is not None and "shown_state" not in n.values:
+            groups.setdefault((n.code, sw.group), []).append(n)
+    result = []
+    for n in out:
+        sw = states.get(n.antenna)
+        same = groups.get((n.code, sw.group)) if sw is not None and "shown_state" not in n.values else None
+        if same is None or len(same) == 1:
+            result.append(n)
+        elif n is same[0]:
+            used = [m for m in same if m.antenna in (planned or {}).get(sw.group, ())]
+            pick = (used or same)[0]
+            values = {**pick.values, "shown_state": states[pick.antenna].state, "states": len(same)}
+            result.append(Notice(n.code, sw.group, values))
+    return result
 
 
 LOCAL_DOMINATES_DB = 6.0

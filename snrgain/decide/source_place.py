@@ -160,7 +160,7 @@ def _by_antenna(antennas, moving: list[int], values: list[dict]) -> list[Notice]
         if sw is None:
             out.append(Notice("source-position", antennas[k].name, v))
         else:
-            groups.setdefault(sw.group, []).append({**v, "state": sw.state})
+            groups.setdefault(sw.group, []).append({**v, "shown_state": sw.state})
     for group, states in groups.items():
         worst = max(states, key=lambda v: max(abs(v["low_db"]), abs(v["high_db"])))
         out.append(Notice("source-position", group, {**worst, "states": len(states)}))

@@ -243,7 +243,7 @@ def phasing_tolerance_notices(sc, planned: dict | None = None) -> list[Notice]:
                 st[1]["front_to_back_db"] - st[1]["front_to_back_drawn_db"][0],
             ),
         )
-        out.append(Notice("phasing-tolerance", group, {**t, "state": state, "states": len(states)}))
+        out.append(Notice("phasing-tolerance", group, {**t, "shown_state": state, "states": len(states)}))
     return out
 
 

@@ -52,6 +52,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
     v = n.values
+    if v.get("shown_state"):  # the states of one switched antenna said once (snrgain.decide.decisions.notices)
+        n = Notice(n.code, f"{n.antenna} (in {v['states']} of its states; {v['shown_state']} shown)", v)
     if n.code == "receiver-limited":
         return (
             f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
@@ -138,9 +140,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "phasing-tolerance":
         rdf, fb = v["rdf_drawn_db"], v["front_to_back_drawn_db"]
         cap = "over " if v["front_to_back_db"] >= 40.0 else ""
-        which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         text = (
-            f"{n.antenna}{which}: its phasing asks for precision: with the lines cut by a velocity factor typically "
+            f"{n.antenna}: its phasing asks for precision: with the lines cut by a velocity factor typically "
             f"{100 * v['velocity_factor_error']:.0f} % off and each line typically "
             f"{length_text(v['length_error_m'], unit, 1)} off (one standard deviation; the longest line, "
             f"{v['longest_delay_ns']:.0f} ns, then off by about {_ns_text(v['longest_error_ns'])} ns, "
@@ -174,9 +175,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
                 f"{signed_text(v['high_db'])} dB, and every antenna's gain over it with that. Place the source where "
                 "it radiates from, or read its level on an antenna that hears it well (not in a null)"
             )
-        which = f" (in {v['states']} of its states; {v['state']} shown)" if v.get("state") else ""
         return (
-            f"{n.antenna}{which}: its SNR gain rests on exactly where {v['source']!r} stands: {moved}, with this "
+            f"{n.antenna}: its SNR gain rests on exactly where {v['source']!r} stands: {moved}, with this "
             f"antenna's resistor and phasing as chosen now, the gain changes by {signed_text(v['low_db'])} to "
             f"{signed_text(v['high_db'])} dB (that source is {100 * v['share']:.0f} % of its noise where it stands "
             "now). Place the source where it radiates from (its wiring, not the building's middle), or take this "
