@@ -574,8 +574,8 @@ def _factor_plan(positions: tuple[tuple[float, float], ...]):
     exp(j kx x) exp(j ky y) taken once per distinct nonzero offset from (x0, y0), the coordinates most elements
     share (a negative offset is the conjugate), and the reference phase exp(j (kx x0 + ky y0)) only when (x0, y0)
     is not the origin.  A four-square, square or diamond, then needs two exponentials instead of four.  Offsets
-    are rounded to 1 nm before they are compared (a phase error below 1e-6 rad at 30 MHz).  ``terms`` None: the plan saves nothing,
-    one exponential per element (none for an element at the origin)."""
+    are rounded to 1 nm before they are compared (a phase error below 1e-6 rad at 30 MHz).  ``terms`` None: the
+    plan saves nothing, one exponential per element (none for an element at the origin)."""
     pos = np.array(positions, dtype=float)
     x0, y0 = (_most_common(pos[:, i]) for i in (0, 1))
     dx, dy = np.round(pos[:, 0] - x0, 9), np.round(pos[:, 1] - y0, 9)
