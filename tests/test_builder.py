@@ -336,3 +336,29 @@ def test_a_yardstick_is_ranked_but_never_the_best(tmp_path):
     buildable = [n for n in tr.ranking if n != "isotropic yardstick"]
     assert tr.best == buildable[0] and tr.runner_up == buildable[1]
     assert "isotropic yardstick" not in r.plan.antennas
+
+
+def test_a_delay_line_given_is_repeated_as_given(tmp_path):
+    """An element given its own delay line (length and velocity factor) alone: the build sheet repeats that line, not
+    the same delay restated as another cable."""
+    from snrgain.decide.build import build_sheet
+    from snrgain.scenario import load
+
+    text = (SCENARIOS.parent / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
+    text += (
+        '\n[[candidate]]\nname = "line pair"\nfamily = "array"\nbearing = 45\nsteering = "given"\n'
+        'elements = [\n  { family = "vertical", height = "7 m", position = [100, 0], delay = "0 ns" },\n'
+        '  { family = "vertical", height = "7 m", position = [111.6, 11.6], '
+        'delay_line = { length = "60 m", velocity_factor = 0.66 } },\n]\n'
+    )
+    path = tmp_path / "site.toml"
+    path.write_text(text)
+    sc = load(path)
+    pair = next(a for a in sc.candidates if a.name == "line pair")
+    sheet = build_sheet(pair, sc.freq_hz)
+    assert sheet["given_lines"] == [None, {"length_m": pytest.approx(60.0), "velocity_factor": 0.66}]
+    assert sheet["delays_ns"][1] == pytest.approx(60.0 / (0.66 * C_M_PER_S) * 1e9)
+    res = CliRunner().invoke(cli, ["rank", str(path), "--build"])
+    assert res.exit_code == 0, res.output
+    out = " ".join(res.stdout.split())
+    assert "60.00 m of your line (VF 0.66) (the others of RG-6, VF 0.83)" in out

@@ -214,6 +214,8 @@ class Array(Antenna):
         self.elements: list[Antenna] = []
         self.positions = []
         self.weights = []
+        self.given_lines: list[tuple[float, float] | None] = []
+        """Per element, (length [m], velocity factor) of the delay line the user gave it alone, else None."""
         problems = []
         families = set()
         for i, raw in enumerate(params.elements):
@@ -234,6 +236,9 @@ class Array(Antenna):
                     raise ValueError(f"{where}: {PHASE_SENSE_NEEDED}")
                 delay, phase, amp = _weights_from(raw, where, si=params._si)
                 self.weights.append((delay, -phase if params.phase_sense == "lead" else phase, amp))
+                line = raw.get("delay_line") if not {"delay", "phase"} & set(raw) else None  # a line alone
+                vf = float(line.get("velocity_factor", 0.66)) if line else 0.0
+                self.given_lines.append((delay * vf * C_M_PER_S, vf) if line else None)
             except SpecError as exc:
                 problems.extend(exc.problems)
                 continue

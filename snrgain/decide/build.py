@@ -124,6 +124,11 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             phasing_lengths_m=[coax_length_m(t, vf) for t in delays],
         )
         out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
+        given = getattr(antenna, "given_lines", None)
+        raw = None if antenna.optimised else np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in antenna.weights])
+        if given and any(given) and raw is not None and np.allclose(delays, raw, rtol=0, atol=1e-12):
+            # the user's own line where an element was given one alone and needs no other: its length repeated
+            out["given_lines"] = [None if g is None else {"length_m": g[0], "velocity_factor": g[1]} for g in given]
     from snrgain.scenario.switched import switched_state
 
     sw = switched_state(antenna)

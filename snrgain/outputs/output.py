@@ -427,14 +427,24 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             at = [
                 f"at ({length_text(p[0], unit, 1)}, {length_text(p[1], unit, 1)}) " for p in b.get("positions_m") or []
             ]
+            given = b.get("given_lines") or [None] * len(b["delays_ns"])
             lines = ", ".join(
-                f"{where}{d:.0f} ns = {length_text(m, unit, 2 if unit == 'm' else 1)}"
-                for where, d, m in zip(at or [""] * len(b["delays_ns"]), b["delays_ns"], b["phasing_lengths_m"])
+                f"{where}{d:.0f} ns = "
+                + (
+                    f"{length_text(m, unit, 2 if unit == 'm' else 1)}"
+                    if g is None
+                    else f"{length_text(g['length_m'], unit, 2 if unit == 'm' else 1)} of your line (VF "
+                    f"{g['velocity_factor']:g})"
+                )
+                for where, d, m, g in zip(
+                    at or [""] * len(b["delays_ns"]), b["delays_ns"], b["phasing_lengths_m"], given
+                )
             )
             which = ", element by element (east, north)" if at else ""
-            bits.append(
-                f"phasing delays{which}: {lines} of {b['phasing_cable']} (VF {b['phasing_cable_velocity_factor']:g})"
-            )
+            name, vf = b["phasing_cable"], b["phasing_cable_velocity_factor"]
+            cable = f" of {name} (VF {vf:g})" if not any(given) else f" (the others of {name}, VF {vf:g})"
+            cable = cable if None in given else ""
+            bits.append(f"phasing delays{which}: {lines}{cable}")
             amps = b.get("amplitudes") or []
             if amps and max(amps) - min(amps) > 1e-3:
                 bits.append("amplitudes " + ", ".join(f"{20 * np.log10(x):.1f} dB" if x > 0 else "off" for x in amps))
