@@ -369,3 +369,16 @@ def test_a_warning_on_several_states_is_said_once():
     assert n.values["worst_margin_db"] == 6.0  # the state the plan builds
     assert notice_text(n).startswith(f"{FOUR_SQUARE['name']} (in {len(states)} of its states; ")
     assert by_switched_antenna(sc, notes[:1]) == notes[:1]  # one state: as it was
+
+
+def test_a_switched_flags_two_states_are_one_loop():
+    """The reversed state of a flag is the same loop fed on its other side: its feed stands where the first state's
+    resistor is, so both span the same 8 m on the plan (they were two loops, mirrored about the feed)."""
+    from snrgain.scenario import load
+    from snrgain.scenario.local import antenna_outline
+
+    flag = {"name": "flag", "family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "position": [50, 50]}
+    fwd, rev = load(scenario({**flag, "directions": [45, 225]})).candidates
+    (a,), (b,) = antenna_outline(fwd, (0, 0)), antenna_outline(rev, (0, 0))
+    np.testing.assert_allclose(a, b[::-1], atol=1e-9)
+    assert np.hypot(*(a[1] - a[0])) == pytest.approx(8.0)

@@ -276,18 +276,17 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
         state["bearing"] = f"{float(np.degrees(bearings[0] if reverse and how == 'port' else b))!r} deg"
         if how == "port":
             state["port"] = "reverse" if reverse else "forward"
+        far = bearings[0] if how == "ends" else bearings[0] + np.pi if swapped else None  # the loop's resistor side
         info = {
             "switched": SwitchedState(str(group), label, degs[i], i, labels, tuple(degs), how),
-            "reverse_of": bearings[0] if reverse and how == "ends" else None,
+            "reverse_of": far if (reverse or swapped) and i == 1 else None,
         }
         out.append((state, info))
     return out, []
 
 
 def far_end(first: Antenna, bearing_rad: float, start) -> tuple[float, float]:
-    """The far end of a long wire whose feed stands at ``start`` [m east, m north] toward ``bearing_rad`` [m]."""
-    p = start
-    return (
-        float(p[0] + first.length_m * np.sin(bearing_rad)),
-        float(p[1] + first.length_m * np.cos(bearing_rad)),
-    )
+    """The far end of a long wire (or a terminated loop's resistor side) whose feed stands at ``start`` [m east,
+    m north], toward ``bearing_rad``: a reversed state's feed, on the same wire or loop."""
+    p, size = start, first.length_m if first.long_wire else first.width_m
+    return (float(p[0] + size * np.sin(bearing_rad)), float(p[1] + size * np.cos(bearing_rad)))

@@ -327,6 +327,8 @@ class Problem:
             pos = (d.east_m, d.north_m)
             if sw.how == "ends" and sw.index == 1:
                 pos = far_end(first, first.bearing_rad, pos)
+            elif sw.index == 1 and not first.long_wire and hasattr(first, "line_bearing_rad"):  # a loop's other side
+                pos = far_end(first, first.line_bearing_rad, pos)
             out.append(a.at(pos))
         return out
 
