@@ -63,37 +63,38 @@ def _steered(auto_for: str, tmp_path):
     return snrgain.evaluate(load(path))
 
 
-def test_the_form_is_the_products_noise_for_any_weights():
-    """For any weights, the placed source's form gives the temperature the products give the array with those
-    weights: T_ref x P_A / P_ref (snrgain.model.placed.pickup), P_A worked through the array's own currents."""
-    from dataclasses import replace
-
+@pytest.mark.parametrize("feed", ["buffered", "lines"])
+def test_the_forms_are_the_products_noise_for_any_weights(feed):
+    """For any weights, the steering's noise form (the placed source's from where the elements stand, and the rest
+    of the sky's) gives the temperature the products give the array with those weights, the array beside the
+    resonant transmitting vertical as the ranking takes it (its re-radiation in both), fed through lines too."""
     from snrgain.model import pipeline
-    from snrgain.model.placed import pickup
-    from snrgain.model.steering import placed_forms
+    from snrgain.model.products import products
+    from snrgain.model.scatter import bare, beside, with_structures
+    from snrgain.model.steering import placed_forms, sky_forms
     from snrgain.scenario import load
 
-    sc = pipeline.resolve_sources(load(SITE.replace("AUTO", "snr"), base_dir=REPO))
-    skies = pipeline.build_sky(sc, pipeline.sky_grid(sc))
+    text = SITE.replace("AUTO", "snr").replace('ground_loss = "30 ohm"', f'ground_loss = "30 ohm"\nfeed = "{feed}"')
+    sc = with_structures(pipeline.resolve_sources(load(text, base_dir=REPO)))
+    grid = pipeline.sky_grid(sc)
+    skies = pipeline.build_sky(sc, grid)
     ant = sc.candidates[0]
-    form = placed_forms(sc, skies, ant)["shed supply"]
-    src = sc.noise.local[0]
-    ref = sc.antennas[0]
-    comp = next(c for comps in skies.maps.values() for c in comps if c.name == src.name)
-    t_ref = float(
-        np.dot(
-            ref.gain_linear(sc.freq_hz, comp.directions.azimuth_rad, comp.directions.elevation_rad), comp.weight_k_sr
-        )
-    ) / (4 * np.pi)
-    one = replace(sc, noise=replace(sc.noise, local=(src,)))
+    assert bare(ant) is not ant  # beside the vertical
+    placed = placed_forms(sc, skies, ant)["shed supply"]
+    _, noise, _ = sky_forms(sc, skies, ant, 1)
+    chain = sc.chains[1].temperature_k
+    row = list(skies.names).index("shed supply")
     rng = np.random.default_rng(5)
-    for _ in range(4):
+    for _ in range(3):
         w = rng.normal(size=2) + 1j * rng.normal(size=2)
-        arr = ant.with_weights(sc.freq_hz, w, "test")
-        shares, _ = pickup(one, [ref, arr])
-        u = np.conj(arr.weights_at(sc.freq_hz))
-        t_form = float(np.real(u.conj() @ form @ u) / np.real(u.conj() @ arr.norm_matrix(sc.freq_hz) @ u))
-        assert t_form == pytest.approx(t_ref * float(shares[src.name][1]), rel=1e-6)
+        arr = beside(bare(ant).with_weights(sc.freq_hz, w, "test"), ant.scatterers)
+        temps = products(sc, [sc.antennas[0], arr], grid, skies).temps
+        u = np.conj(bare(arr).weights_at(sc.freq_hz))
+        q = float(np.real(u.conj() @ bare(arr).norm_matrix(sc.freq_hz) @ u))
+        t_placed = float(np.real(u.conj() @ placed @ u)) / q
+        assert t_placed == pytest.approx(float(np.mean(temps.by_component[row, 1])), rel=1e-6)
+        t_all = float(np.real(u.conj() @ noise @ u)) / q - chain
+        assert t_all == pytest.approx(float(np.mean(temps.total[1])), rel=1e-6)
 
 
 def test_snr_steering_beats_rdf_steering_under_a_near_source(tmp_path):

@@ -9,6 +9,7 @@ from dataclasses import replace
 import numpy as np
 
 from snrgain.model.products import Products, products, snr_gains, target_statistic
+from snrgain.model.scatter import bare, beside
 from snrgain.scenario import Scenario
 
 
@@ -61,6 +62,11 @@ def sky_forms(sc: Scenario, skies, ant, k: int):
     from snrgain.antennas.steering import quadratic_form
 
     placed = {} if ant.composite else placed_forms(sc, skies, ant)
+    responses_of = (
+        ant.element_responses
+        if ant.composite or bare(ant) is ant
+        else (lambda f, az, el: element_responses_beside(ant, f, az, el))
+    )
     # The form is linear in the brightness: the maps on one set of directions are summed over components, months
     # and hours first, and each set's form made once.
     brightness: dict[int, list] = {}
@@ -72,15 +78,34 @@ def sky_forms(sc: Scenario, skies, ant, k: int):
             held[1] = held[1] + c.weight_k_sr
     noise = 0
     for directions, total in brightness.values():
-        responses = ant.element_responses(sc.freq_hz, directions.azimuth_rad, directions.elevation_rad)
+        responses = responses_of(sc.freq_hz, directions.azimuth_rad, directions.elevation_rad)
         noise = noise + quadratic_form(*responses, total / (4 * np.pi))
     noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
     for form in placed.values():
         noise = noise + form
     ti = nearest_target(sc, ant.params.bearing)
     t = sc.targets[ti]
-    signal = quadratic_form(*ant.element_responses(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
+    signal = quadratic_form(*responses_of(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
     return signal, noise, ti
+
+
+def one_element_arrays(ant, freq_hz: float) -> list:
+    """(the array with element i's unit weight alone, sqrt(Q_ii)) for each element i, standing as ``ant`` stands
+    (beside the site's scatterers where it is): its response times sqrt(Q_ii) is element i's own (the array's is
+    sum_i w_i r_i over sqrt(w^H Q w), the scatterers' re-radiation linear in the weights too)."""
+    own = bare(ant)
+    q = np.real(np.diag(own.norm_matrix(freq_hz)))
+    units = [own.with_weights(freq_hz, np.eye(len(q))[i], "one element") for i in range(len(q))]
+    if own is not ant:
+        units = [beside(u, ant.scatterers) for u in units]
+    return list(zip(units, np.sqrt(q)))
+
+
+def element_responses_beside(ant, freq_hz: float, az, el):
+    """An array's element responses (as Array.element_responses) with the site's scatterers' re-radiation: each
+    element's response as it stands beside them (:func:`one_element_arrays`)."""
+    cols = [[r * root for r in u.complex_response(freq_hz, az, el)] for u, root in one_element_arrays(ant, freq_hz)]
+    return np.array([c[0] for c in cols]), np.array([c[1] for c in cols])
 
 
 def placed_forms(sc: Scenario, skies, ant) -> dict:
@@ -92,17 +117,13 @@ def placed_forms(sc: Scenario, skies, ant) -> dict:
     field, through its own currents).  Empty for an array that stands nowhere in particular."""
     from snrgain.antennas.steering import quadratic_form
     from snrgain.model import placed as pl
-    from snrgain.model.scatter import bare
 
     sources = [s for s in sc.noise.local if s.position_m is not None]
     if not sources or not pl.has_place(ant) or not hasattr(ant, "with_weights"):
         return {}
     f, ref = sc.freq_hz, sc.antennas[0]
     ref_m = ref.params.position or (0.0, 0.0)
-    own = bare(ant)
-    n = len(own.elements)
-    q = np.real(np.diag(own.norm_matrix(f)))
-    units = [own.with_weights(f, np.eye(n)[i], "one element") for i in range(n)]
+    units = one_element_arrays(ant, f)  # beside the site's scatterers where it stands: as the products hear it
     out = {}
     for src in sources:
         shares, powers = pl.pickup(replace(sc, noise=replace(sc.noise, local=(src,))), [ref])
@@ -118,9 +139,8 @@ def placed_forms(sc: Scenario, skies, ant) -> dict:
         scale = t_ref * float(shares[src.name][0] / powers[src.name][0])
         form = 0
         for kind, _ in pl.dipoles(src):
-            amps = (
-                np.array([pl.received_amplitudes(u, src, f, ref_m, sc.site.ground, kind=kind) for u in units])
-                * np.sqrt(q)[:, None]
+            amps = np.array(
+                [np.array(pl.received_amplitudes(u, src, f, ref_m, sc.site.ground, kind=kind)) * r for u, r in units]
             )
             form = form + quadratic_form(amps[:, :1], amps[:, 1:])
         out[src.name] = scale * form
@@ -138,8 +158,6 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
     steered on its own elements' responses and then put back beside them; a resistor chosen under the sky is
     scored with the antenna beside them.
     """
-    from snrgain.model.scatter import bare, beside
-
     old = list(sc.antennas)
     order = sorted((k for k, a in enumerate(old) if k > 0 and a.uses_sky), key=lambda k: old[k].sky_order)
     if not order or skies.maps is None:
