@@ -236,14 +236,17 @@ def test_given_phases_and_their_delays_agree_in_describe():
     assert d["delays_ns"][1] == pytest.approx(300.0 / 360.0 / F * 1e9)
 
 
-@pytest.mark.parametrize("side_m", [20.0, 41.0])
-def test_front_to_back_steering_keeps_the_lobe_forward(side_m):
+@pytest.mark.parametrize("side_m", [6.0, 10.0, 20.0, 41.0])
+@pytest.mark.parametrize("ring", [False, True])
+def test_front_to_back_steering_keeps_the_lobe_forward(side_m, ring):
     """A four-square has many phasings that null its back; steered for front-to-back it takes the one with the most
-    gain forward (snrgain.antennas.steering.FB_MEAN): a null over 30 dB deep, the main lobe within 20 deg of the
-    bearing and the RDF within 1 dB of the RDF steering's (without it a 20 m square leant 23 deg at 3 dB less)."""
+    gain forward (snrgain.antennas.steering.FB_MEAN), whichever order its elements are written in: a null over 30 dB
+    deep, the main lobe within 5 deg of the bearing and the RDF within 1 dB of the RDF steering's (without it a
+    10 m square leant 75 deg at RDF -0.4 dB; with the objective alone the search's result hung on the order)."""
+    corners = [[0, 0], [side_m, 0], [side_m, side_m], [0, side_m]] if ring else None
     base = {
         "family": "phased-verticals",
-        "positions": [[0, 0], [side_m, 0], [0, side_m], [side_m, side_m]],
+        "positions": corners or [[0, 0], [side_m, 0], [0, side_m], [side_m, side_m]],
         "height": "6 m",
         "bearing": 45,
         "ground": "moist loam",
@@ -252,5 +255,5 @@ def test_front_to_back_steering_keeps_the_lobe_forward(side_m):
     assert _fb(fb, 45) > 30.0
     az = np.arange(0.0, 360.0, 1.0)
     lobe = az[int(np.argmax(fb.gain_dbi(F, az, 20.0)))]
-    assert abs((lobe - 45.0 + 180.0) % 360.0 - 180.0) <= 20.0
+    assert abs((lobe - 45.0 + 180.0) % 360.0 - 180.0) <= 5.0
     assert _rdf(fb, 45) > _rdf(rdf, 45) - 1.0

@@ -373,7 +373,11 @@ class Array(Antenna):
             )
             # G_front / (G_back + FB_FLOOR G_front + FB_MEAN G_mean) is itself a ratio of two forms: of the phases
             # that null the back, those with the most gain forward over the average (steering.FB_MEAN)
-            u = st.best_phases(s_f, s_b + st.FB_FLOOR * s_f + st.FB_MEAN * s_mean, amps, [end_fire])
+            den = s_b + st.FB_FLOOR * s_f + st.FB_MEAN * s_mean
+            # started also from the free optima of this ratio and of the RDF (their phases): from the end-fire delays
+            # and random phases alone the ascent stopped short of them, as the elements' order had it
+            starts = [end_fire, st.free_optimum(s_f, den), st.free_optimum(s_f, s_mean)]
+            u = st.best_phases(s_f, den, amps, starts)
             self.set_weights(freq_hz, np.conj(u), note or "front-to-back at the auto elevation")
             return
         if signal is None:
