@@ -362,3 +362,24 @@ def test_a_delay_line_given_is_repeated_as_given(tmp_path):
     assert res.exit_code == 0, res.output
     out = " ".join(res.stdout.split())
     assert "60.00 m of your line (VF 0.66) (the others of RG-6, VF 0.83)" in out
+
+
+def test_delay_lines_given_to_every_element_are_repeated(tmp_path):
+    """Lines of 10 m and 70 m (VF 0.66) on both elements: both repeated as written, not shifted to start at 0 ns."""
+    from snrgain.decide.build import build_sheet
+    from snrgain.scenario import load
+
+    text = (SCENARIOS.parent / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
+    text += (
+        '\n[[candidate]]\nname = "line pair"\nfamily = "array"\nbearing = 45\nsteering = "given"\nelements = [\n'
+        '  { family = "vertical", height = "7 m", position = [100, 0], '
+        'delay_line = { length = "10 m", velocity_factor = 0.66 } },\n'
+        '  { family = "vertical", height = "7 m", position = [111.6, 11.6], '
+        'delay_line = { length = "70 m", velocity_factor = 0.66 } },\n]\n'
+    )
+    path = tmp_path / "site.toml"
+    path.write_text(text)
+    sc = load(path)
+    sheet = build_sheet(next(a for a in sc.candidates if a.name == "line pair"), sc.freq_hz)
+    assert [g["length_m"] for g in sheet["given_lines"]] == pytest.approx([10.0, 70.0])
+    assert sheet["delays_ns"] == pytest.approx([x / (0.66 * C_M_PER_S) * 1e9 for x in (10.0, 70.0)])

@@ -168,3 +168,16 @@ def test_a_level_read_on_a_candidate_moves_the_reference_once(tmp_path):
     assert notice_text(said[0]).startswith(
         "TX vertical (the reference): every SNR gain over it rests on exactly where 'barn light' stands"
     )
+
+
+def test_a_gain_moved_by_both_noises_is_still_said(tmp_path, monkeypatch):
+    """The reference's noise 2 dB down and the candidate's 2 dB up: the gain moves 4 dB though neither noise moves 3;
+    with no warning on the reference, the candidate is named."""
+    sc, results, _ = _decided(FIXED, tmp_path)
+    n = len(sc.antennas)
+    fake = np.zeros((len(sp.DIRECTIONS), n))
+    fake[0, 0], fake[0, 1] = -2.0, 2.0
+    monkeypatch.setattr(sp, "noise_shifts_db", lambda *a, **k: fake)
+    said = sp.source_position_notices(sc, results)
+    assert [x.antenna for x in said] == [sc.antennas[1].name]
+    assert said[0].values["low_db"] == pytest.approx(-4.0)

@@ -382,3 +382,23 @@ def test_a_switched_flags_two_states_are_one_loop():
     (a,), (b,) = antenna_outline(fwd, (0, 0)), antenna_outline(rev, (0, 0))
     np.testing.assert_allclose(a, b[::-1], atol=1e-9)
     assert np.hypot(*(a[1] - a[0])) == pytest.approx(8.0)
+
+
+def test_warnings_on_different_structures_stay_apart():
+    """Notices of one code on a switched antenna's states are said once only where they concern the same thing: two
+    towers stay two warnings, and the count is of states, not of notices."""
+    from snrgain.decide.decisions import by_switched_antenna
+    from snrgain.model.results import Notice
+    from snrgain.scenario import load
+
+    sc = load(scenario({**FOUR_SQUARE, "directions": [f"{b} deg" for b in BEARINGS]}))
+    ne, se, sw = [a.name for a in sc.candidates][:3]
+    notes = [
+        Notice("structure-cost", ne, {"structure": "tower A", "cost_db": 1.5}),
+        Notice("structure-cost", ne, {"structure": "tower B", "cost_db": 2.6}),
+        Notice("structure-cost", se, {"structure": "tower B", "cost_db": 1.3}),
+        Notice("structure-cost", sw, {"structure": "tower B", "cost_db": 2.9}),
+    ]
+    once = by_switched_antenna(sc, notes)
+    assert [(n.antenna, n.values["structure"]) for n in once] == [(ne, "tower A"), (FOUR_SQUARE["name"], "tower B")]
+    assert once[1].values["states"] == 3

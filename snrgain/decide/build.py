@@ -125,10 +125,16 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
         )
         out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
         given = getattr(antenna, "given_lines", None)
-        raw = None if antenna.optimised else np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in antenna.weights])
-        if given and any(given) and raw is not None and np.allclose(delays, raw, rtol=0, atol=1e-12):
-            # the user's own line where an element was given one alone and needs no other: its length repeated
-            out["given_lines"] = [None if g is None else {"length_m": g[0], "velocity_factor": g[1]} for g in given]
+        if given and any(given) and not antenna.optimised and min(t for t, _, _ in antenna.weights) >= 0:
+            # the user's own line where an element was given one alone: its length repeated, and the other elements'
+            # delays as written (not shifted to start at 0, so the lines given stay the lines built)
+            raw = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in antenna.weights])
+            out.update(
+                delays_ns=[float(t * 1e9) for t in raw],
+                phasing_lengths_m=[coax_length_m(t, vf) for t in raw],
+                given_lines=[None if g is None else {"length_m": g[0], "velocity_factor": g[1]} for g in given],
+            )
+            out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
     from snrgain.scenario.switched import switched_state
 
     sw = switched_state(antenna)

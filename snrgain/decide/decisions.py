@@ -96,23 +96,35 @@ def by_switched_antenna(sc: Scenario, out: list[Notice], planned: dict | None = 
     from snrgain.scenario.switched import switched_state
 
     states = {a.name: switched_state(a) for a in sc.candidates}
+
+    def key(n: Notice):
+        sw = states.get(n.antenna)
+        if sw is None or "shown_state" in n.values:
+            return None
+        return (n.code, sw.group, *(str(n.values.get(k)) for k in DISTINCT_KEYS))
+
     groups: dict[tuple, list[Notice]] = {}
     for n in out:
-        sw = states.get(n.antenna)
-        if sw is not None and "shown_state" not in n.values:
-            groups.setdefault((n.code, sw.group), []).append(n)
+        if key(n) is not None:
+            groups.setdefault(key(n), []).append(n)
     result = []
     for n in out:
-        sw = states.get(n.antenna)
-        same = groups.get((n.code, sw.group)) if sw is not None and "shown_state" not in n.values else None
-        if same is None or len(same) == 1:
+        same = groups.get(key(n)) if key(n) is not None else None
+        if same is None or len({m.antenna for m in same}) == 1:
             result.append(n)
         elif n is same[0]:
-            used = [m for m in same if m.antenna in (planned or {}).get(sw.group, ())]
+            group = states[n.antenna].group
+            used = [m for m in same if m.antenna in (planned or {}).get(group, ())]
             pick = (used or same)[0]
-            values = {**pick.values, "shown_state": states[pick.antenna].state, "states": len(same)}
-            result.append(Notice(n.code, sw.group, values))
+            count = len({m.antenna for m in same})
+            values = {**pick.values, "shown_state": states[pick.antenna].state, "states": count}
+            result.append(Notice(n.code, group, values))
     return result
+
+
+DISTINCT_KEYS = ("structure", "source", "other", "area", "scatterer")
+"""Values that tell notices of one code on one antenna apart (which structure, source, other antenna or area):
+notices on a switched antenna's states are said once only where these agree (:func:`by_switched_antenna`)."""
 
 
 LOCAL_DOMINATES_DB = 6.0

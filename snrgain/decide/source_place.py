@@ -9,7 +9,8 @@ source is moved DISPLACEMENT_M north, east, south and west, every antenna's pick
 (:func:`snrgain.model.placed.pickup`, the products' own), the level kept where it is anchored (read on the antenna
 named by ``read_on``, the reference by default, or its Fa where it was measured), and each candidate's noise changed
 by its share of that source (medians over the hours, as at the receiver input, the receiving chain's own floor
-counted), its resistor and phasing kept as chosen for the written place.  The SNR gain moves by the reference's
+counted), its resistor and phasing kept as chosen for the written place (its feed line's own pickup of the source
+is not moved with it: the products add it, this notice reads the antenna alone).  The SNR gain moves by the reference's
 change less the candidate's (the signal stays).  A move that would bring the source within the input's least
 distance of an antenna (1 m) is left out.  A candidate whose SNR gain moves by SHIFT_DB or more
 at some displacement is named (snrgain's threshold: half a S-unit).
@@ -101,9 +102,9 @@ def source_position_notices(sc, results: list) -> list[Notice]:
     """``source-position`` notices for each placed source (module docstring); values source, step_m, directions
     (the moves taken, :func:`moves`), low_db and high_db (the least and most change over them), share:
 
-    - for a candidate whose own noise moves by SHIFT_DB or more and whose SNR gain moves by SHIFT_DB or more: the
-      change of its SNR gain, share the source's share of its noise; a switched antenna once, by the state that
-      moves most (``state``, and ``states`` how many of them move that much);
+    - for a candidate whose SNR gain moves by SHIFT_DB or more, where its own noise moves that much or the
+      reference's is not said to: the change of its SNR gain, share the source's share of its noise; a switched
+      antenna once, by the state that moves most (``shown_state``, and ``states`` how many of them move that much);
     - for the reference (once) where its own noise moves by SHIFT_DB or more (the level read on another antenna,
       ``read_on``, or an Fa measured elsewhere): the change of its noise, ``read_on`` the antenna the level was read
       on (None: an Fa): every SNR gain over it moves with that."""
@@ -123,15 +124,17 @@ def source_position_notices(sc, results: list) -> list[Notice]:
             continue
         head = {"source": src.name, "step_m": DISPLACEMENT_M, "directions": taken}
         ref = _range(noise[:, 0])
-        if max(map(abs, ref)) >= SHIFT_DB:
+        said_of_reference = max(map(abs, ref)) >= SHIFT_DB
+        if said_of_reference:
             reader = src.read_on if src.level_dbm is not None else None
             values = {**head, "low_db": ref[0], "high_db": ref[1], "share": _share(results[0], src), "read_on": reader}
             out.append(Notice("source-position", antennas[0].name, {**values, "reference": True}))
         gain = noise[:, :1] - noise
-        moving = [
+        moving = [  # its gain moves, and not only with the reference's noise (said above where it is)
             k
             for k in range(1, len(antennas))
-            if max(map(abs, _range(noise[:, k]))) >= SHIFT_DB and max(map(abs, _range(gain[:, k]))) >= SHIFT_DB
+            if max(map(abs, _range(gain[:, k]))) >= SHIFT_DB
+            and (max(map(abs, _range(noise[:, k]))) >= SHIFT_DB or not said_of_reference)
         ]
         out += _by_antenna(antennas, moving, [{**head, **_gain_values(gain[:, k], results[k], src)} for k in moving])
     return out

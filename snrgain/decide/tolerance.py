@@ -217,9 +217,9 @@ def phasing_tolerance_notices(sc, planned: dict | None = None) -> list[Notice]:
     """``phasing-tolerance`` (the values of :func:`tolerance`) for each candidate array whose figures rest on its
     phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`); a switched array
     once, by the state that loses most RDF in one build in ten among those the station plan uses (``planned``: the
-    plan's states by group, snrgain.decide.plan.Plan.states), else among all (``state``, and ``states`` how many of
-    them ask).  ``reversed_keeps`` says whether the build with phase-reversing transformers keeps its figures (it
-    does not ask for precision)."""
+    plan's states by group, snrgain.decide.plan.Plan.states), else among all (the state shown, and how many of
+    them ask: ``shown_state`` and ``states``).  ``reversed_keeps`` says whether the build with phase-reversing
+    transformers keeps its figures (it does not ask for precision)."""
     from snrgain.scenario.switched import switched_state
 
     out: list[Notice] = []

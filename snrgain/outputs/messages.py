@@ -138,6 +138,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             '(termination in ohms, or auto_for = "z0")'
         )
     if n.code == "phasing-tolerance":
+        from snrgain.decide import tolerance
+
         rdf, fb = v["rdf_drawn_db"], v["front_to_back_drawn_db"]
         cap = "over " if v["front_to_back_db"] >= 40.0 else ""
         text = (
@@ -150,7 +152,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"dB, becomes {rdf[0]:.1f} to {rdf[2]:.1f} dB (median {rdf[1]:.1f}) and its "
             f"front-to-back of {cap}{v['front_to_back_db']:.0f} dB becomes {fb[0]:.0f} to {fb[2]:.0f} dB (median "
             f"{fb[1]:.0f}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure; said "
-            "where that build loses 1 dB of RDF, or 6 dB of front-to-back down to under 15 dB)."
+            f"where that build loses {tolerance.RDF_LOSS_DB:g} dB of RDF, or {tolerance.FRONT_TO_BACK_LOSS_DB:g} dB of "
+            f"front-to-back down to under {tolerance.FRONT_TO_BACK_KEPT_DB:g} dB)."
         )
         rev = v.get("reversed")
         if rev is not None:
