@@ -402,3 +402,12 @@ def test_warnings_on_different_structures_stay_apart():
     once = by_switched_antenna(sc, notes)
     assert [(n.antenna, n.values["structure"]) for n in once] == [(ne, "tower A"), (FOUR_SQUARE["name"], "tower B")]
     assert once[1].values["states"] == 3
+
+
+def test_a_switched_flag_may_say_auto_for_snr():
+    """auto_for = "snr" is a flag's default (its resistor set for SNR toward the target nearest each state's
+    bearing): written out it is accepted as left out, not refused with the arrays' reason."""
+    from snrgain.scenario import load
+
+    flag = {"name": "flag", "family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "directions": [45, 225]}
+    assert len(load(scenario({**flag, "auto_for": "snr"})).candidates) == 2

@@ -198,7 +198,7 @@ def _switch_problem(family, spec: dict, where: str) -> str | None:
             "an array whose delays are given points one way whatever its bearing; with directions, use "
             "steering = 'auto' so that each state's delays follow from its bearing"
         )
-    if spec.get("auto_for") == "snr":
+    if cls.phased and spec.get("auto_for") == "snr":  # a wire's or loop's resistor: its default, as written
         return (
             "auto_for = 'snr' aims an array at the target nearest its bearing, so two states could aim at the same "
             "target; with directions each state is aimed by its bearing: use auto_for = 'rdf', 'front_to_back' or "
