@@ -338,24 +338,29 @@ def test_a_yardstick_is_ranked_but_never_the_best(tmp_path):
     assert "isotropic yardstick" not in r.plan.antennas
 
 
-def test_a_delay_line_given_is_repeated_as_given(tmp_path):
-    """An element given its own delay line (length and velocity factor) alone: the build sheet repeats that line, not
-    the same delay restated as another cable."""
+def _line_pair(tmp_path, first: str, second: str):
+    """The tests' Sedge Bank site with a pair of 7 m verticals whose elements take ``first`` and ``second`` (their
+    delay keys), written to a file: (its path, the scenario, the pair's build sheet)."""
     from snrgain.decide.build import build_sheet
     from snrgain.scenario import load
 
     text = (SCENARIOS.parent / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
     text += (
-        '\n[[candidate]]\nname = "line pair"\nfamily = "array"\nbearing = 45\nsteering = "given"\n'
-        'elements = [\n  { family = "vertical", height = "7 m", position = [100, 0], delay = "0 ns" },\n'
-        '  { family = "vertical", height = "7 m", position = [111.6, 11.6], '
-        'delay_line = { length = "60 m", velocity_factor = 0.66 } },\n]\n'
+        '\n[[candidate]]\nname = "line pair"\nfamily = "array"\nbearing = 45\nsteering = "given"\nelements = [\n'
+        f'  {{ family = "vertical", height = "7 m", position = [100, 0], {first} }},\n'
+        f'  {{ family = "vertical", height = "7 m", position = [111.6, 11.6], {second} }},\n]\n'
     )
     path = tmp_path / "site.toml"
     path.write_text(text)
     sc = load(path)
-    pair = next(a for a in sc.candidates if a.name == "line pair")
-    sheet = build_sheet(pair, sc.freq_hz)
+    return path, sc, build_sheet(next(a for a in sc.candidates if a.name == "line pair"), sc.freq_hz)
+
+
+def test_a_delay_line_given_is_repeated_as_given(tmp_path):
+    """An element given its own delay line (length and velocity factor) alone: the build sheet repeats that line, not
+    the same delay restated as another cable."""
+    line = 'delay_line = { length = "60 m", velocity_factor = 0.66 }'
+    path, sc, sheet = _line_pair(tmp_path, 'delay = "0 ns"', line)
     assert sheet["given_lines"] == [None, {"length_m": pytest.approx(60.0), "velocity_factor": 0.66}]
     assert sheet["delays_ns"][1] == pytest.approx(60.0 / (0.66 * C_M_PER_S) * 1e9)
     res = CliRunner().invoke(cli, ["rank", str(path), "--build"])
@@ -366,20 +371,7 @@ def test_a_delay_line_given_is_repeated_as_given(tmp_path):
 
 def test_delay_lines_given_to_every_element_are_repeated(tmp_path):
     """Lines of 10 m and 70 m (VF 0.66) on both elements: both repeated as written, not shifted to start at 0 ns."""
-    from snrgain.decide.build import build_sheet
-    from snrgain.scenario import load
-
-    text = (SCENARIOS.parent / "tests" / "data" / "sites" / "sedge-bank-160.toml").read_text()
-    text += (
-        '\n[[candidate]]\nname = "line pair"\nfamily = "array"\nbearing = 45\nsteering = "given"\nelements = [\n'
-        '  { family = "vertical", height = "7 m", position = [100, 0], '
-        'delay_line = { length = "10 m", velocity_factor = 0.66 } },\n'
-        '  { family = "vertical", height = "7 m", position = [111.6, 11.6], '
-        'delay_line = { length = "70 m", velocity_factor = 0.66 } },\n]\n'
-    )
-    path = tmp_path / "site.toml"
-    path.write_text(text)
-    sc = load(path)
-    sheet = build_sheet(next(a for a in sc.candidates if a.name == "line pair"), sc.freq_hz)
+    lines = [f'delay_line = {{ length = "{x} m", velocity_factor = 0.66 }}' for x in (10, 70)]
+    _, _, sheet = _line_pair(tmp_path, *lines)
     assert [g["length_m"] for g in sheet["given_lines"]] == pytest.approx([10.0, 70.0])
     assert sheet["delays_ns"] == pytest.approx([x / (0.66 * C_M_PER_S) * 1e9 for x in (10.0, 70.0)])
