@@ -774,7 +774,7 @@ def dask_setup(worker=None) -> None:
     the workers' designs ran slower than the command's own), and imports the modules a design needs, so that the
     first chunk does not wait for them.  A Ctrl-C at the terminal reaches every process of the command: a local worker
     leaves it to the command, which stops the cluster (each worker printed its tracebacks), and does not log the
-    tasks that stop cancelled."""
+    tasks that stop cancelled, nor a heartbeat that finds the scheduler already closed."""
     import logging
     import signal
     import threading
@@ -786,6 +786,11 @@ def dask_setup(worker=None) -> None:
     if threading.current_thread() is threading.main_thread():
         signal.signal(signal.SIGINT, signal.SIG_IGN)
     logging.getLogger("distributed.worker.state_machine").setLevel(logging.ERROR)
+    # the command stops the cluster: a worker's heartbeat caught between the scheduler closing and its own stop logs
+    # a traceback ("Failed to communicate with scheduler during heartbeat"); a local worker's end, not an error
+    logging.getLogger("distributed.worker").addFilter(
+        lambda record: not str(record.msg).startswith("Failed to communicate with scheduler")
+    )
     import snrgain.decide.lot  # noqa: F401
     import snrgain.model.pipeline  # noqa: F401
     import snrgain.physics.modal  # noqa: F401
