@@ -356,7 +356,6 @@ class Array(Antenna):
     def steer(self, freq_hz: float, *, signal=None, noise=None, note: str | None = None) -> None:
         """Optimise the weights at ``freq_hz``: by default for ``auto_for`` under a uniform sky; with ``signal``
         and ``noise`` (Hermitian forms in u = conj(w), see :mod:`snrgain.antennas.steering`) for that ratio."""
-        from noisemodels.sphere import upper_hemisphere
         from snrgain.antennas import steering as st
 
         p = self.params
@@ -366,11 +365,7 @@ class Array(Antenna):
         if self.auto_for == "front_to_back" and signal is None:
             back = self.element_responses(freq_hz, np.array([p.bearing + np.pi]), np.array([p.auto_elevation]))
             s_f, s_b = st.quadratic_form(*front), st.quadratic_form(*back)
-            grid = upper_hemisphere(16)
-            s_mean = st.quadratic_form(
-                *self.element_responses(freq_hz, grid.azimuth_rad, grid.elevation_rad),
-                grid.solid_angle_sr / (4 * np.pi),
-            )
+            s_mean = self._mean_form(freq_hz)
             # G_front / (G_back + FB_FLOOR G_front + FB_MEAN G_mean) is itself a ratio of two forms: of the phases
             # that null the back, those with the most gain forward over the average (steering.FB_MEAN)
             den = s_b + st.FB_FLOOR * s_f + st.FB_MEAN * s_mean
@@ -381,9 +376,7 @@ class Array(Antenna):
             self.set_weights(freq_hz, np.conj(u), note or "front-to-back at the auto elevation")
             return
         if signal is None:
-            grid = upper_hemisphere(16)
-            rv, rh = self.element_responses(freq_hz, grid.azimuth_rad, grid.elevation_rad)
-            noise = st.quadratic_form(rv, rh, grid.solid_angle_sr / (4 * np.pi))
+            noise = self._mean_form(freq_hz)
             signal = st.quadratic_form(*front)
             note = note or "RDF toward the bearing at the auto elevation (uniform sky)"
         free = st.free_optimum(signal, noise)
@@ -392,6 +385,15 @@ class Array(Antenna):
         else:
             u = st.best_phases(signal, noise, amps, [end_fire, free])
         self.set_weights(freq_hz, np.conj(u), note)
+
+    def _mean_form(self, freq_hz: float) -> np.ndarray:
+        """The form of the gain averaged over the sphere (the RDF's divisor), on the HEALPix hemisphere of nside 16."""
+        from noisemodels.sphere import upper_hemisphere
+        from snrgain.antennas import steering as st
+
+        grid = upper_hemisphere(16)
+        rv, rh = self.element_responses(freq_hz, grid.azimuth_rad, grid.elevation_rad)
+        return st.quadratic_form(rv, rh, grid.solid_angle_sr / (4 * np.pi))
 
     # -- responses ----------------------------------------------------------------------------------------
 

@@ -68,7 +68,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None) -> list[Noti
     out.extend(fragile_termination_notices(sc))
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
-    out.extend(phasing_tolerance_notices(sc, None if plan is None else plan.states))
+    out.extend(phasing_tolerance_notices(sc))
     from snrgain.decide.source_place import source_position_notices
 
     out.extend(source_position_notices(sc, antennas))
@@ -90,9 +90,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None) -> list[Noti
 def by_switched_antenna(sc: Scenario, out: list[Notice], planned: dict | None = None) -> list[Notice]:
     """The notices with those of one code on several states of one switched antenna said once, where the first of
     them stood: on the antenna (its group name), its values the state's the station plan uses (``planned``: the
-    plan's states by group) or else the first's, with ``shown_state`` and ``states`` (how many of its states the
-    notice concerns).  A notice already said once per antenna (it has ``shown_state``) and one on a single state
-    stay as they are."""
+    plan's states by group) or else the first's (:func:`shown_by_code`: for some codes the state that asks most),
+    with ``shown_state`` and ``states`` (how many of its states the notice concerns).  A notice already said once per
+    antenna (it has ``shown_state``) and one on a single state stay as they are."""
     from snrgain.scenario.switched import switched_state
 
     states = {a.name: switched_state(a) for a in sc.candidates}
@@ -114,12 +114,21 @@ def by_switched_antenna(sc: Scenario, out: list[Notice], planned: dict | None = 
             result.append(n)
         elif n is same[0]:
             group = states[n.antenna].group
-            used = [m for m in same if m.antenna in (planned or {}).get(group, ())]
-            pick = (used or same)[0]
+            in_plan, worst = shown_by_code().get(n.code, (True, None))
+            used = [m for m in same if m.antenna in (planned or {}).get(group, ())] if in_plan else []
+            pick = max(used or same, key=lambda m: worst(m.values)) if worst else (used or same)[0]
             count = len({m.antenna for m in same})
             values = {**pick.values, "shown_state": states[pick.antenna].state, "states": count}
             result.append(Notice(n.code, group, values))
     return result
+
+
+def shown_by_code() -> dict:
+    """How :func:`by_switched_antenna` picks the state a notice on several states shows, by code: (among the states
+    the plan builds first?, the measure whose largest is shown); other codes, the plan's state, else the first."""
+    from snrgain.decide import source_place, tolerance
+
+    return {"phasing-tolerance": (True, tolerance.severity), "source-position": (False, source_place.severity)}
 
 
 DISTINCT_KEYS = ("structure", "source", "other", "area", "scatterer")

@@ -136,8 +136,17 @@ def source_position_notices(sc, results: list) -> list[Notice]:
             if max(map(abs, _range(gain[:, k]))) >= SHIFT_DB
             and (max(map(abs, _range(noise[:, k]))) >= SHIFT_DB or not said_of_reference)
         ]
-        out += _by_antenna(antennas, moving, [{**head, **_gain_values(gain[:, k], results[k], src)} for k in moving])
+        out += [
+            Notice("source-position", antennas[k].name, {**head, **_gain_values(gain[:, k], results[k], src)})
+            for k in moving
+        ]
     return out
+
+
+def severity(values: dict) -> float:
+    """How far a ``source-position`` notice's gain moves: of a switched antenna's states the one shown
+    (snrgain.decide.decisions.by_switched_antenna)."""
+    return max(abs(values["low_db"]), abs(values["high_db"]))
 
 
 def _range(values) -> tuple[float, float]:
@@ -153,21 +162,4 @@ def _gain_values(gain, result, src) -> dict:
     return {"low_db": low, "high_db": high, "share": _share(result, src)}
 
 
-def _by_antenna(antennas, moving: list[int], values: list[dict]) -> list[Notice]:
-    """A notice per candidate of ``moving``; a switched antenna's states in one, by the state that moves most."""
-    from snrgain.scenario.switched import switched_state
-
-    out, groups = [], {}
-    for k, v in zip(moving, values):
-        sw = switched_state(antennas[k])
-        if sw is None:
-            out.append(Notice("source-position", antennas[k].name, v))
-        else:
-            groups.setdefault(sw.group, []).append({**v, "shown_state": sw.state})
-    for group, states in groups.items():
-        worst = max(states, key=lambda v: max(abs(v["low_db"]), abs(v["high_db"])))
-        out.append(Notice("source-position", group, {**worst, "states": len(states)}))
-    return out
-
-
-__all__ = ["moves", "noise_shifts_db", "shifts_db", "source_position_notices", "source_shares"]
+__all__ = ["moves", "noise_shifts_db", "severity", "shifts_db", "source_position_notices", "source_shares"]

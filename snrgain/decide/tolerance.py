@@ -132,23 +132,17 @@ def _figures_of_weights(antenna, freq_hz: float, weights: np.ndarray, front) -> 
     """(RDF [dB], front-to-back [dB]) for each row of ``weights`` (draws, elements), as :func:`figures` gives them
     one by one.  The array's response is linear in its weights over sqrt(w^H Q w), the transmitting vertical's
     re-radiation included (it re-radiates what the array's elements hear): each element's own response, the
-    array's with that element's unit weight (times sqrt(Q_ii)), serves every draw."""
-    from snrgain.model.scatter import bare, beside
+    array's with that element's unit weight (times sqrt(Q_ii)), serves every draw
+    (snrgain.model.steering.element_responses_standing, as the steering reads them)."""
+    from snrgain.model.scatter import bare
+    from snrgain.model.steering import element_responses_standing
 
     grid = upper_hemisphere(NSIDE)
     b, el = front
     az = np.concatenate([grid.azimuth_rad, [b, b + np.pi]])
     els = np.concatenate([grid.elevation_rad, [el, el]])
-    own = bare(antenna)
-    q = own.norm_matrix(freq_hz)
-    n = q.shape[0]
-    cols = []
-    for i in range(n):
-        one = own.with_weights(freq_hz, np.eye(n)[i], "one element")
-        if own is not antenna:
-            one = beside(one, antenna.scatterers)
-        cols.append([r * np.sqrt(q[i, i].real) for r in one.complex_response(freq_hz, az, els)])
-    rv, rh = np.array([c[0] for c in cols]), np.array([c[1] for c in cols])  # (elements, directions)
+    q = bare(antenna).norm_matrix(freq_hz)
+    rv, rh = element_responses_standing(antenna, freq_hz, az, els)  # (elements, directions)
     norm = np.real(np.einsum("di,ij,dj->d", weights.conj(), q, weights))
     ev, eh = np.einsum("di,in->dn", weights, rv), np.einsum("di,in->dn", weights, rh)
     g = (ev.real**2 + ev.imag**2 + eh.real**2 + eh.imag**2) / norm[:, None]
@@ -213,37 +207,28 @@ def asks_for_precision(t: dict, drawn: dict | None = None) -> bool:
     )
 
 
-def phasing_tolerance_notices(sc, planned: dict | None = None) -> list[Notice]:
-    """``phasing-tolerance`` (the values of :func:`tolerance`) for each candidate array whose figures rest on its
-    phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`); a switched array
-    once, by the state that loses most RDF in one build in ten among those the station plan uses (``planned``: the
-    plan's states by group, snrgain.decide.plan.Plan.states), else among all (the state shown, and how many of
-    them ask: ``shown_state`` and ``states``).  ``reversed_keeps`` says whether the build with phase-reversing
-    transformers keeps its figures (it does not ask for precision)."""
-    from snrgain.scenario.switched import switched_state
+def severity(values: dict) -> tuple:
+    """How hard a ``phasing-tolerance`` notice's array asks (the RDF one build in ten loses, then its front-to-back):
+    of a switched array's states the one shown (snrgain.decide.decisions.by_switched_antenna)."""
+    return (
+        round(values["rdf_db"] - values["rdf_drawn_db"][0], 2),
+        values["front_to_back_db"] - values["front_to_back_drawn_db"][0],
+    )
 
+
+def phasing_tolerance_notices(sc) -> list[Notice]:
+    """``phasing-tolerance`` (the values of :func:`tolerance`) for each candidate array whose figures rest on its
+    phasing lines cut closer than a cable's velocity factor is known (:func:`asks_for_precision`), each state of a
+    switched one (said once by snrgain.decide.decisions.by_switched_antenna, by :func:`severity` among the states
+    the plan builds).  ``reversed_keeps`` says whether the build with phase-reversing transformers keeps its figures
+    (it does not ask for precision)."""
     out: list[Notice] = []
-    groups: dict[str, list] = {}
     for ant in sc.candidates:
         t = tolerance(ant, sc.freq_hz)
         if t is None or not asks_for_precision(t):
             continue
         t["reversed_keeps"] = t["reversed"] is not None and not asks_for_precision(t, t["reversed"])
-        sw = switched_state(ant)
-        if sw is None:
-            out.append(Notice("phasing-tolerance", ant.name, t))
-        else:
-            groups.setdefault(sw.group, []).append((sw.state, t))
-    for group, states in groups.items():  # the state losing most RDF; of equal RDF, most front-to-back
-        used = [st for st in states if f"{group} {st[0]}" in (planned or {}).get(group, ())]
-        state, t = max(
-            used or states,
-            key=lambda st: (
-                round(st[1]["rdf_db"] - st[1]["rdf_drawn_db"][0], 2),
-                st[1]["front_to_back_db"] - st[1]["front_to_back_drawn_db"][0],
-            ),
-        )
-        out.append(Notice("phasing-tolerance", group, {**t, "shown_state": state, "states": len(states)}))
+        out.append(Notice("phasing-tolerance", ant.name, t))
     return out
 
 
@@ -254,5 +239,6 @@ __all__ = [
     "line_errors_s",
     "phasing_tolerance_notices",
     "reversed_lines_s",
+    "severity",
     "tolerance",
 ]

@@ -62,11 +62,10 @@ def sky_forms(sc: Scenario, skies, ant, k: int):
     from snrgain.antennas.steering import quadratic_form
 
     placed = {} if ant.composite else placed_forms(sc, skies, ant)
-    responses_of = (
-        ant.element_responses
-        if ant.composite or bare(ant) is ant
-        else (lambda f, az, el: element_responses_beside(ant, f, az, el))
-    )
+
+    def responses_of(f, az, el):
+        return element_responses_standing(ant, f, az, el)
+
     # The form is linear in the brightness: the maps on one set of directions are summed over components, months
     # and hours first, and each set's form made once.
     brightness: dict[int, list] = {}
@@ -101,9 +100,12 @@ def one_element_arrays(ant, freq_hz: float) -> list:
     return list(zip(units, np.sqrt(q)))
 
 
-def element_responses_beside(ant, freq_hz: float, az, el):
-    """An array's element responses (as Array.element_responses) with the site's scatterers' re-radiation: each
-    element's response as it stands beside them (:func:`one_element_arrays`)."""
+def element_responses_standing(ant, freq_hz: float, az, el):
+    """An array's element responses (as Array.element_responses: the array's response is sum_i w_i r_i over
+    sqrt(w^H Q w)) as it stands: beside the site's scatterers, with their re-radiation, each element's response as
+    it stands beside them (:func:`one_element_arrays`); else (or a composite) its own."""
+    if ant.composite or bare(ant) is ant:
+        return ant.element_responses(freq_hz, az, el)
     cols = [[r * root for r in u.complex_response(freq_hz, az, el)] for u, root in one_element_arrays(ant, freq_hz)]
     return np.array([c[0] for c in cols]), np.array([c[1] for c in cols])
 
@@ -115,6 +117,7 @@ def placed_forms(sc: Scenario, skies, ant) -> dict:
     read elsewhere, an Fa measured elsewhere), P_A(w) = sum over the source's dipoles of |sum_i w_i a_i|^2 on the
     combiner's normalisation: a_i what element i alone delivers per unit weight, from where it stands (its near
     field, through its own currents).  Empty for an array that stands nowhere in particular."""
+    from noisemodels.sky import weighted_temperature_k
     from snrgain.antennas.steering import quadratic_form
     from snrgain.model import placed as pl
 
@@ -129,8 +132,9 @@ def placed_forms(sc: Scenario, skies, ant) -> dict:
         shares, powers = pl.pickup(replace(sc, noise=replace(sc.noise, local=(src,))), [ref])
         t_ref = np.mean(
             [
-                float(np.dot(ref.gain_linear(f, c.directions.azimuth_rad, c.directions.elevation_rad), c.weight_k_sr))
-                / (4 * np.pi)
+                weighted_temperature_k(
+                    ref.gain_linear(f, c.directions.azimuth_rad, c.directions.elevation_rad), c.weight_k_sr
+                )
                 for comps in skies.maps.values()
                 for c in comps
                 if c.name == src.name
