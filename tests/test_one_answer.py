@@ -127,12 +127,28 @@ def test_phasing_unit_never_below_its_better_part(path):
 
 
 def test_a_unit_passing_one_antenna_hears_exactly_that_antenna():
-    # Fen Reach's Beverage + loop: toward Japan the unit passes the Beverage alone, and hears the placed street
-    # light exactly as the Beverage does (its pickup is the Beverage's, summed along the wire).
-    r = snrgain.evaluate(REPO / "tests" / "data" / "sites" / "fen-reach-80.toml")
-    unit, bev = r.antenna("Beverage + loop"), r.antenna("Beverage north-east")
-    assert "alone" in unit.parameters["steered_for"]
-    assert np.allclose(unit.snr_gain_nominal_db, bev.snr_gain_nominal_db, atol=1e-9)
+    # Fen Reach's Beverage + loop passing the Beverage alone (what a unit does with the loop's input off) hears the
+    # placed street light and the sky exactly as the Beverage does (its pickup is the Beverage's, summed along the
+    # wire): the same temperatures and gains, so the same SNR gains.
+    from snrgain.model import pipeline
+    from snrgain.model.products import products, snr_gains
+    from snrgain.model.scatter import with_structures
+    from snrgain.model.steering import with_candidates
+    from snrgain.scenario import load
+
+    sc = with_structures(pipeline.resolve_sources(load(REPO / "tests" / "data" / "sites" / "fen-reach-80.toml")))
+    grid = pipeline.sky_grid(sc)
+    skies = pipeline.build_sky(sc, grid)
+    names = [a.name for a in sc.antennas]
+    unit, bev = sc.antennas[names.index("Beverage + loop")], sc.antennas[names.index("Beverage north-east")]
+    assert unit.elements[0] is bev
+    alone = unit.alone(sc.freq_hz, 0, "the Beverage alone")
+    both = with_candidates(sc, [bev, alone], names.index("Beverage north-east"))  # on the Beverage's chain
+    p = products(both, both.antennas, grid, skies)
+    np.testing.assert_allclose(p.temps.by_component[:, 2], p.temps.by_component[:, 1], rtol=1e-9)
+    np.testing.assert_allclose(p.gains.toward[2], p.gains.toward[1], rtol=1e-9)
+    gains = snr_gains(both, p)
+    np.testing.assert_allclose(gains[2], gains[1], atol=1e-9)
 
 
 # -- only the pipeline composes the stages ----------------------------------------------------------------------

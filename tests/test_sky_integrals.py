@@ -9,7 +9,7 @@ import pytest
 
 from snrgain.antennas.steering import quadratic_form
 from snrgain.model import pipeline, snr
-from snrgain.model.steering import sky_forms
+from snrgain.model.steering import placed_forms, sky_forms
 from tests.conftest import SCENARIOS
 
 
@@ -54,10 +54,14 @@ def test_an_arrays_noise_form_is_the_sum_of_each_cells_forms():
     assert ants, "the demo holds a phasing unit"
     k, ant = ants[0]
     _, noise, _ = sky_forms(sc, skies, ant, k)
+    placed = placed_forms(sc, skies, ant)  # a placed source as each element hears it where it stands
+    assert placed, "the demo holds a placed source"
     want = 0
     for comps in skies.maps.values():
         for c in comps:
+            if c.name in placed:
+                continue
             r = ant.element_responses(sc.freq_hz, c.directions.azimuth_rad, c.directions.elevation_rad)
             want = want + quadratic_form(*r, c.weight_k_sr / (4 * np.pi))
-    want = want / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
+    want = want / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz) + sum(placed.values())
     np.testing.assert_allclose(noise, want, rtol=1e-12, atol=1e-12 * np.abs(want).max())

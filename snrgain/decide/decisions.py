@@ -27,9 +27,10 @@ def main_lobe_deg(antenna, freq_hz: float) -> float | None:
     return float(az[int(np.argmax(g))])
 
 
-def notices(sc: Scenario, antennas: list[AntennaResult], plan=None) -> list[Notice]:
+def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) -> list[Notice]:
     """What the user should know about the results, as codes and numbers (``plan``: the station plan, whose
-    switched antennas' states a notice on one of them prefers)."""
+    switched antennas' states a notice on one of them prefers; ``skies``: the noise sky, with which a phasing unit
+    set automatically is set again on a placed source moved, snrgain.decide.source_place)."""
     out = []
     for r in antennas:
         if r.receiver_limited:
@@ -71,7 +72,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None) -> list[Noti
     out.extend(phasing_tolerance_notices(sc))
     from snrgain.decide.source_place import source_position_notices
 
-    out.extend(source_position_notices(sc, antennas))
+    out.extend(source_position_notices(sc, antennas, skies))
     from snrgain.decide.lot import site_notices
     from snrgain.decide.reading import reading_notices
     from snrgain.model.feedline import notices as feed_line_notices
@@ -268,7 +269,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         plan=plan,
         uncertainty=_uncertainty_dict(sc),
         beat_by_db=sc.uncertainty.beat_by_db,
-        notices=notices(sc, [reference, *candidates], plan),
+        notices=notices(sc, [reference, *candidates], plan, skies),
         tx_vertical=_tx_rows(sc),
         cuts=cuts,
         lot_m=None if sc.site.lot_m is None else list(sc.site.lot_m),

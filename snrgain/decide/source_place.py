@@ -11,9 +11,11 @@ named by ``read_on``, the reference by default, or its Fa where it was measured)
 by its share of that source (medians over the hours, as at the receiver input, the receiving chain's own floor
 counted), its resistor and phasing kept as chosen for the written place (its feed line's own pickup of the source
 is not moved with it: the products add it, this notice reads the antenna alone).  The SNR gain moves by the reference's
-change less the candidate's (the signal stays).  A move that would bring the source within the input's least
-distance of an antenna (1 m) is left out.  A candidate whose SNR gain moves by SHIFT_DB or more
-at some displacement is named (snrgain's threshold: half a S-unit).
+change less the candidate's (the signal stays).  A phasing unit set automatically (a ``combination`` with setting
+"auto") is the exception: a listener sets it again by ear on the source as heard, so its setting follows the moved
+source, and its SNR's change set again is taken from the steering's own forms (:func:`resetting_snr_db`).  A move
+that would bring the source within the input's least distance of an antenna (1 m) is left out.  A candidate whose
+SNR gain moves by SHIFT_DB or more at some displacement is named (snrgain's threshold: half a S-unit).
 """
 
 from __future__ import annotations
@@ -86,11 +88,48 @@ def noise_shifts_db(sc, antennas: list, results: list, src, step_m: float = DISP
     return out
 
 
-def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
-    """The change of each antenna's SNR gain [dB] with ``src`` moved (:func:`noise_shifts_db`): the reference's
-    noise change less the antenna's (the signal stays); the reference's column 0."""
-    noise = noise_shifts_db(sc, antennas, results, src, step_m)
+def resetting_snr_db(sc, skies, antennas: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
+    """The change of each automatically set phasing unit's SNR [dB] (a combination with setting "auto") when it is
+    set again for ``src`` moved ``step_m`` along each of DIRECTIONS: the highest SNR any setting gives under the
+    noise with the source moved over the SNR of its setting as chosen under the noise now, both from the steering's
+    own forms (snrgain.model.steering.sky_forms, placed_forms: the noise averaged over the months and hours, the
+    chain's counted).  Shape (directions, antennas); NaN for every other antenna (and every antenna without
+    ``skies``) and for a move :func:`moves` leaves out."""
+    from snrgain.antennas.steering import free_optimum, ratio
+    from snrgain.model.steering import placed_forms, sky_forms
+
+    out = np.full((len(DIRECTIONS), len(antennas)), np.nan)
+    if skies is None or skies.maps is None:
+        return out
+    taken = moves(sc, antennas, src, step_m)
+    for k in range(1, len(antennas)):
+        ant = antennas[k]
+        if not (ant.composite and getattr(ant, "optimised", False)):
+            continue
+        held = placed_forms(_with_source(sc, src), skies, ant).get(src.name)
+        if held is None:  # a unit that stands nowhere in particular: its setting held, as for any antenna
+            continue
+        signal, noise, _ = sky_forms(sc, skies, ant, k)
+        now = ratio(np.conj(ant.weights_at(sc.freq_hz)), signal, noise)
+        for i, p in taken:
+            moved = noise - held + placed_forms(_with_source(sc, replace(src, position_m=p)), skies, ant)[src.name]
+            out[i, k] = 10 * np.log10(ratio(free_optimum(signal, moved), signal, moved) / now)
+    return out
+
+
+def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M, skies=None) -> np.ndarray:
+    """The change of each antenna's SNR gain [dB] with ``src`` moved: the reference's noise change less the
+    antenna's (:func:`noise_shifts_db`; the signal stays), and for a phasing unit set automatically (with ``skies``)
+    the reference's noise change plus the unit's SNR change set again (:func:`resetting_snr_db`); the reference's
+    column 0."""
+    noise = _unit_noise(noise_shifts_db(sc, antennas, results, src, step_m), resetting_snr_db(sc, skies, antennas, src))
     return noise[:, :1] - noise
+
+
+def _unit_noise(noise: np.ndarray, reset_snr: np.ndarray) -> np.ndarray:
+    """Noise shifts with each set-again unit's column its SNR change, as a noise change (the signal taken as
+    staying: what its SNR gain over the reference reads)."""
+    return np.where(np.isnan(reset_snr), noise, -reset_snr)
 
 
 def _with_source(sc, src):
@@ -98,9 +137,10 @@ def _with_source(sc, src):
     return replace(sc, noise=replace(sc.noise, local=(src,)))
 
 
-def source_position_notices(sc, results: list) -> list[Notice]:
+def source_position_notices(sc, results: list, skies=None) -> list[Notice]:
     """``source-position`` notices for each placed source (module docstring); values source, step_m, directions
-    (the moves taken, :func:`moves`), low_db and high_db (the least and most change over them), share:
+    (the moves taken, :func:`moves`), low_db and high_db (the least and most change over them), share, and
+    ``reset`` True for a phasing unit set again on the moved source (with ``skies``, :func:`resetting_snr_db`):
 
     - for a candidate whose SNR gain moves by SHIFT_DB or more, where its own noise moves that much or the
       reference's is not said to: the change of its SNR gain, share the source's share of its noise; a switched
@@ -118,7 +158,8 @@ def source_position_notices(sc, results: list) -> list[Notice]:
         return []  # results of other antennas than the scenario's (not the pipeline's own)
     out = []
     for src in placed:
-        noise = noise_shifts_db(sc, antennas, results, src)
+        reset = resetting_snr_db(sc, skies, antennas, src)  # a unit set again on the moved source
+        noise = _unit_noise(noise_shifts_db(sc, antennas, results, src), reset)
         taken = [DIRECTION_NAMES[i] for i in range(len(DIRECTIONS)) if np.isfinite(noise[i, 0])]
         if not taken:
             continue
@@ -137,7 +178,11 @@ def source_position_notices(sc, results: list) -> list[Notice]:
             and (max(map(abs, _range(noise[:, k]))) >= SHIFT_DB or not said_of_reference)
         ]
         out += [
-            Notice("source-position", antennas[k].name, {**head, **_gain_values(gain[:, k], results[k], src)})
+            Notice(
+                "source-position",
+                antennas[k].name,
+                {**head, **_gain_values(gain[:, k], results[k], src), "reset": bool(np.any(np.isfinite(reset[:, k])))},
+            )
             for k in moving
         ]
     return out
@@ -162,4 +207,12 @@ def _gain_values(gain, result, src) -> dict:
     return {"low_db": low, "high_db": high, "share": _share(result, src)}
 
 
-__all__ = ["moves", "noise_shifts_db", "severity", "shifts_db", "source_position_notices", "source_shares"]
+__all__ = [
+    "moves",
+    "noise_shifts_db",
+    "resetting_snr_db",
+    "severity",
+    "shifts_db",
+    "source_position_notices",
+    "source_shares",
+]

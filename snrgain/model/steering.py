@@ -56,12 +56,13 @@ def _place_of(part, old: list, antennas: list) -> int:
 def sky_forms(sc: Scenario, skies, ant, k: int):
     """(signal, noise, target index) quadratic forms of an antenna's element weights under the sky: the noise
     averaged over the scenario's months and hours plus the chain's noise on the combiner's normalisation, the
-    signal toward the target nearest its bearing (snrgain.antennas.steering).  A placed source enters an array's
-    noise as its elements hear it where they stand (:func:`placed_forms`), as the products take it, not as a spot
-    on the sky at its bearing from the reference."""
+    signal toward the target nearest its bearing (snrgain.antennas.steering).  A placed source enters the noise of an
+    array or a phasing unit as its elements (a unit's two antennas) hear it where they stand (:func:`placed_forms`),
+    as the products take it, not as a spot on the sky at its bearing from the reference: the null a unit sets with
+    a sense antenna is set on the source as both antennas hear it."""
     from snrgain.antennas.steering import quadratic_form
 
-    placed = {} if ant.composite else placed_forms(sc, skies, ant)
+    placed = placed_forms(sc, skies, ant)
 
     def responses_of(f, az, el):
         return element_responses_standing(ant, f, az, el)
@@ -111,12 +112,14 @@ def element_responses_standing(ant, freq_hz: float, az, el):
 
 
 def placed_forms(sc: Scenario, skies, ant) -> dict:
-    """Each placed source's quadratic form in an array's element weights (name -> (N, N)): the reference's
-    temperature from it (its sky component through the reference's pattern, averaged over the months and hours)
-    times the array's share of it, P_A / P_ref with the pickup's own scaling (snrgain.model.placed.pickup: a level
-    read elsewhere, an Fa measured elsewhere), P_A(w) = sum over the source's dipoles of |sum_i w_i a_i|^2 on the
-    combiner's normalisation: a_i what element i alone delivers per unit weight, from where it stands (its near
-    field, through its own currents).  Empty for an array that stands nowhere in particular."""
+    """Each placed source's quadratic form in an array's element weights, or a phasing unit's two (name -> (N, N)):
+    the reference's temperature from it (its sky component through the reference's pattern, averaged over the
+    months and hours) times the array's share of it, P_A / P_ref with the pickup's own scaling
+    (snrgain.model.placed.pickup: a level read elsewhere, an Fa measured elsewhere), P_A(w) = sum over the
+    source's dipoles of |sum_i w_i a_i|^2 on the combiner's normalisation: a_i what element i alone delivers per
+    unit weight, from where it stands (its near field, through its own currents; a unit's antenna as the products
+    hear it alone, snrgain.model.placed.received_amplitudes).  Empty for an array that stands nowhere in
+    particular."""
     from noisemodels.sky import weighted_temperature_k
     from snrgain.antennas.steering import quadratic_form
     from snrgain.model import placed as pl

@@ -178,9 +178,14 @@ def notice_text(n: Notice, unit: str = "m") -> str:
                 f"{signed_text(v['high_db'])} dB, and every antenna's gain over it with that. Place the source where "
                 "it radiates from, or read its level on an antenna that hears it well (not in a null)"
             )
+        held = (
+            "with the unit set again on it where it then stands (as by ear)"
+            if v.get("reset")
+            else "with this antenna's resistor and phasing as chosen now"
+        )
         return (
-            f"{n.antenna}: its SNR gain rests on exactly where {v['source']!r} stands: {moved}, with this "
-            f"antenna's resistor and phasing as chosen now, the gain changes by {signed_text(v['low_db'])} to "
+            f"{n.antenna}: its SNR gain rests on exactly where {v['source']!r} stands: {moved}, {held}, "
+            f"the gain changes by {signed_text(v['low_db'])} to "
             f"{signed_text(v['high_db'])} dB (that source is {100 * v['share']:.0f} % of its noise where it stands "
             "now). Place the source where it radiates from (its wiring, not the building's middle), or take this "
             "antenna's figure as that uncertain"
