@@ -130,6 +130,17 @@ def test_plan_text_json_and_labels_say_the_group(switched_and_written):
     assert "toward 135 deg" in lines["four-square SE (135 deg)"]
 
 
+def test_a_switched_four_square_takes_three_lines(switched_and_written):
+    """A 20 m square steered for RDF to its four diagonals: every state the same phasing turned by the square's
+    symmetry, so one set of lines serves them all (no line, the two middle elements' lag and the back element's:
+    three lengths); the states' lines chosen alike (array.shortest_lags), not four lengths as before."""
+    r, _ = switched_and_written
+    sw = switching(r.groups()["four-square"])
+    assert len(sw["lines_ns"]) == 3 and sw["lines_ns"][0] < 0.5  # (a lag of 1e-5 ns: no line)
+    for st in sw["states"]:
+        assert sorted(st["element_lines"]) == [1, 1, 2, 3]  # two elements without a line, as the square's symmetry
+
+
 def test_switching_lines_follow_the_states_delays(switched_and_written):
     """Every element of every state is given the phasing line of its own delay (to the line tolerance)."""
     r, _ = switched_and_written
