@@ -750,3 +750,59 @@ def test_a_loop_at_many_places_chooses_its_resistor_once(monkeypatch):
     alone = [scatter.coupling_terms(flag.at(p), tx, F_HZ, p)[0] for p in places]
     assert len(searches) == 1 + len(places)
     assert shared == alone
+
+
+MISPHASED = """
+[site]
+name = "Hollin Row (invented)"
+latitude = 42.0
+longitude = -71.5
+ground = "moist loam"
+
+[band]
+frequency = "1.83 MHz"
+
+[time]
+months = [1]
+utc_hours = [2, 4]
+
+[noise.man_made]
+environment = "rural"
+
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = [5, 25]
+
+[reference]
+name = "TX vertical"
+family = "vertical"
+height = "40 m"
+position = [0, 0]
+
+[[candidate]]
+name = "pair"
+family = "phased-verticals"
+positions = [[25, 25], [42, 42]]
+height = "7 m"
+ground_loss = "30 ohm"
+bearing = 45
+steering = "given"
+phases = [90, 0]
+phase_sense = "lag"
+"""
+# the front (north-east) element leads: the pair beams south-west, its back toward its bearing
+
+
+def test_a_misphased_arrays_vertical_cost_is_read_where_it_hears():
+    """A pair whose given phases beam it away from its bearing: the vertical's cost is read toward its main lobe
+    (as its phasing tolerance is), not toward its bearing, where it has its null (read there, the pair alone had an
+    RDF of -1.5 dB and the vertical seemed to add 4.7 dB, so the resonant vertical 47 m off was not named)."""
+    import snrgain
+
+    r = snrgain.evaluate(MISPHASED)
+    codes = {n.code for n in r.notices}
+    assert "lobe-away-from-bearing" in codes
+    row = next(t for t in r.to_dict()["tx_vertical"] if t["antenna"] == "pair")
+    assert row["alone"]["rdf_db"] > 5.0 and row["alone"]["front_to_back_db"] > 5.0  # its front: where it hears
+    assert row["cost_db"] > 1.0 and "tx-vertical-cost" in codes

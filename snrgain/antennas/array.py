@@ -540,6 +540,17 @@ class Array(Antenna):
             out["steered_for"] = self._steered_note[f]
         return out
 
+    def front(self, freq_hz: float) -> tuple[float, float]:
+        """(bearing, elevation) [rad] the array's figures are read toward: its ``bearing`` at its aiming elevation
+        where auto steering aimed it there (RDF, front-to-back, end-fire); else (given weights, weights set for the
+        SNR toward the target nearest the bearing, a phasing unit) its main lobe at that elevation, 1 deg steps: a
+        misphased array's figures are read where it hears, not where it was meant to."""
+        el = float(self.params.auto_elevation)
+        if getattr(self.params, "steering", None) == "auto" and self.auto_for != "snr":
+            return float(self.params.bearing), el
+        az = np.radians(np.arange(0.0, 360.0, 1.0))
+        return float(az[int(np.argmax(self.gain_linear(freq_hz, az, np.full(az.shape, el))))]), el
+
     def effective_delays_s(self, freq_hz: float) -> np.ndarray:
         """Each element's delay with its phase turned into time at ``freq_hz``, the earliest element at 0 [s]: what
         the phasing lines must delay (as given: tau + phase / omega; optimised: the phase lag over omega)."""

@@ -65,14 +65,8 @@ def line_errors_s(delays_s: np.ndarray, draws: int = DRAWS, seed: int = 0) -> np
 
 
 def front_of(antenna, freq_hz: float) -> tuple[float, float]:
-    """(bearing, elevation) [rad] an array's figures are read toward: its ``bearing`` at its aiming elevation where
-    auto steering aimed it there (RDF, front-to-back, end-fire); else (given weights, or weights set for the SNR
-    toward the target nearest the bearing) its main lobe at that elevation, 1 deg steps."""
-    el = float(antenna.params.auto_elevation)
-    if antenna.params.steering == "auto" and antenna.auto_for != "snr":
-        return float(antenna.params.bearing), el
-    az = np.radians(np.arange(0.0, 360.0, 1.0))
-    return float(az[int(np.argmax(antenna.gain_linear(freq_hz, az, np.full(az.shape, el))))]), el
+    """(bearing, elevation) [rad] an array's figures are read toward (snrgain.antennas.array.Array.front)."""
+    return antenna.front(freq_hz)
 
 
 def figures(antenna, freq_hz: float, weights=None, front=None) -> tuple[float, float]:

@@ -7,11 +7,12 @@ station receives is ``[site] tx_state``: "resonant" (its base on the transmitter
 feed opened by a relay, or ``[site] tx_detune_reactance`` across the base). For each candidate that stands on the
 plan and whose response has a phase, :func:`tx_cost` gives, for both states, the change of its RDF toward its
 favoured direction (its bearing, else its strongest direction, at 20 deg elevation or the antenna's own
-auto_elevation), of its front-to-back and of its forward gain. The RDF change is the SNR gain's change under a
-uniform sky (DESIGN.md, SNR): the figure the notice warns on above :data:`COST_WARNING_DB`. A long wire on the plan
-(its forward port) is driven by the vertical's whole field along it and up its leads
-(physics.scatter.wire_coupling); phasing units hear the vertical through their parts; a two-wire line's reversed
-port and pattern tables are not computed and keep the clearance rule.
+auto_elevation; an array's as its figures are read, snrgain.antennas.array.Array.front: its main lobe where its
+weights were given or set for the SNR), of its front-to-back and of its forward gain. The RDF change is the SNR
+gain's change under a uniform sky (DESIGN.md, SNR): the figure the notice warns on above
+:data:`COST_WARNING_DB`. A long wire on the plan (its forward port) is driven by the vertical's whole field along
+it and up its leads (physics.scatter.wire_coupling); phasing units hear the vertical through their parts; a
+two-wire line's reversed port and pattern tables are not computed and keep the clearance rule.
 
 The ranking hears the vertical too (:func:`with_structures`, a stage of the pipeline before the antennas are set
 under the sky): each computed antenna's response becomes its response with the re-radiation of the vertical in
@@ -163,7 +164,9 @@ def _alone_worked(antenna, freq_hz: float):
     az, el = _grid()
     fwd_el = float(getattr(antenna.params, "auto_elevation", FORWARD_ELEVATION_RAD))
     bearing = getattr(antenna.params, "bearing", None)
-    if bearing is None:
+    if hasattr(antenna, "front"):  # an array: toward its bearing where steering aimed it there, else its lobe
+        bearing, fwd_el = antenna.front(freq_hz)
+    elif bearing is None:
         ring = np.radians(np.arange(0.0, 360.0, 1.0))
         ev, eh = antenna.complex_response(freq_hz, ring, np.full(ring.shape, fwd_el))
         bearing = float(ring[np.argmax(np.abs(ev) ** 2 + np.abs(eh) ** 2)])
