@@ -53,13 +53,15 @@ def _place_of(part, old: list, antennas: list) -> int:
     raise LookupError(f"a part of a combination, {getattr(part, 'name', part)!r}, is not among the antennas")
 
 
-def sky_forms(sc: Scenario, skies, ant, k: int):
+def sky_forms(sc: Scenario, skies, ant, k: int, feed_line_k: float = 0.0):
     """(signal, noise, target index) quadratic forms of an antenna's element weights under the sky: the noise
     averaged over the scenario's months and hours plus the chain's noise on the combiner's normalisation, the
     signal toward the target nearest its bearing (snrgain.antennas.steering).  A placed source enters the noise of an
     array or a phasing unit as its elements (a unit's two antennas) hear it where they stand (:func:`placed_forms`),
     as the products take it, not as a spot on the sky at its bearing from the reference: the null a unit sets with
-    a sense antenna is set on the source as both antennas hear it."""
+    a sense antenna is set on the source as both antennas hear it.  ``feed_line_k``: what the antenna's feed line
+    adds to its noise [K] (:func:`feed_line_temperature`), the same for any weights, entered on the combiner's
+    normalisation as the chain's noise is."""
     from snrgain.antennas.steering import quadratic_form
 
     placed = placed_forms(sc, skies, ant)
@@ -80,13 +82,27 @@ def sky_forms(sc: Scenario, skies, ant, k: int):
     for directions, total in brightness.values():
         responses = responses_of(sc.freq_hz, directions.azimuth_rad, directions.elevation_rad)
         noise = noise + quadratic_form(*responses, total / (4 * np.pi))
-    noise = noise / len(skies.maps) + sc.chains[k].temperature_k * ant.norm_matrix(sc.freq_hz)
+    noise = noise / len(skies.maps) + (sc.chains[k].temperature_k + feed_line_k) * ant.norm_matrix(sc.freq_hz)
     for form in placed.values():
         noise = noise + form
     ti = nearest_target(sc, ant.params.bearing)
     t = sc.targets[ti]
     signal = quadratic_form(*responses_of(sc.freq_hz, t.azimuth_rad, t.elevation_rad), t.weight)
     return signal, noise, ti
+
+
+def feed_line_temperature(sc: Scenario, grid, skies, ant, k: int) -> float:
+    """What candidate ``k``'s feed line adds to its noise [K], averaged over the months and hours: its shield's
+    pickup of the sky and of the placed sources (snrgain.model.feedline), from a pass of the products; 0 without a
+    feed line.  For an array it is the same for any weights (a series voltage in its phasing unit's output, whose
+    path and the elements' add in power), so the steering takes it as it takes the chain's noise."""
+    if ant.name not in (getattr(sc, "feed_lines", None) or {}):
+        return 0.0
+    sub = with_candidates(sc, [ant], k)
+    p = products(sub, [sc.antennas[0], ant], grid, skies)
+    if p.feed_lines is None:
+        return 0.0
+    return float(np.mean(p.feed_lines.effect[:, 1].sum(axis=0)))
 
 
 def one_element_arrays(ant, freq_hz: float) -> list:
@@ -183,7 +199,7 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
             score = TerminationScore(sc, grid, skies, ref, put, k, ti)
             ants[k] = put(bare(ant).termination_under_sky(sc.freq_hz, score, sc.targets[ti].name))
             continue
-        signal, noise, ti = sky_forms(sc, skies, ant, k)
+        signal, noise, ti = sky_forms(sc, skies, ant, k, feed_line_temperature(sc, grid, skies, ant, k))
         note = f"SNR toward {sc.targets[ti].name} under the site's noise"
         if bare(ant) is not ant:  # an array: steered on its own elements' responses
             ants[k] = put(bare(ant).under_sky(sc.freq_hz, signal=signal, noise=noise, note=note))
