@@ -93,3 +93,27 @@ def test_the_plan_says_what_else_to_build(tmp_path):
     p.write_text(_scenario(_combo("auto")))
     res = CliRunner().invoke(cli, ["rank", str(p)])
     assert "1. auto: adds" in res.stdout and "(build sense for it)" in res.stdout
+
+
+def test_a_missing_part_is_named_against_every_other_antenna():
+    """The list of names a combination may take holds every antenna written, those with problems of their own too,
+    and not the combination itself (it listed the unit and left out a whip whose table had an unknown key)."""
+    extra = '[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\ncolour = "red"\n\n'
+    extra += '[[candidate]]\nname = "nulling"\nfamily = "combination"\nantennas = ["reference", "nowhere"]\n\n'
+    with pytest.raises(ScenarioError) as err:
+        snrgain.evaluate(_scenario(extra))
+    said = next(m for m in str(err.value).splitlines() if "no antenna named 'nowhere'" in m)
+    assert "'whip'" in said and "'sense'" in said and "'nulling'" not in said
+
+
+def test_a_part_without_a_position_stands_at_the_references_place():
+    """Where the placed sources' pickup hears it (snrgain.model.placed.antenna_point), not at the plan's origin."""
+    from snrgain.scenario import load
+
+    text = _scenario(
+        '[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\n\n'
+        '[[candidate]]\nname = "pair"\nfamily = "combination"\nantennas = ["sense", "whip"]\n\n'
+    )
+    text = text.replace("[reference]\n", "[reference]\nposition = [30, 20]\n", 1)
+    unit = next(a for a in load(text).candidates if a.name == "pair")
+    assert unit.positions.tolist() == [[30.0, 10.0], [30.0, 20.0]]

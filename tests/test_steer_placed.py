@@ -212,3 +212,20 @@ def test_snr_steering_counts_the_feed_lines_share(monkeypatch):
     monkeypatch.setattr(steering, "feed_line_temperature", lambda *args: 0.0)
     blind = snrgain.evaluate(text).antenna("pair").snr_gain_nominal_db[0]
     assert counted > blind + 0.5
+
+
+def test_the_feed_lines_share_leaves_the_scenarios_array_as_it_was():
+    """feed_line_temperature works the products on a copy: the scenario's own array keeps no weights from it."""
+    from snrgain.model import pipeline
+    from snrgain.model.scatter import bare, with_structures
+    from snrgain.model.steering import feed_line_temperature
+    from snrgain.scenario import load
+
+    text = SITE.replace("AUTO", "snr").replace('ground_loss = "30 ohm"', f'ground_loss = "30 ohm"\n{FEED_LINE}')
+    sc = with_structures(pipeline.resolve_sources(load(text, base_dir=REPO)))
+    grid = pipeline.sky_grid(sc)
+    skies = pipeline.build_sky(sc, grid)
+    own = bare(sc.candidates[0])
+    assert not own._steered
+    assert feed_line_temperature(sc, grid, skies, sc.candidates[0], 1) > 0
+    assert not own._steered

@@ -200,6 +200,8 @@ def test_phasing_lines_are_the_shortest_that_give_the_phases():
     assert np.degrees(shortest_lags(np.exp(-1j * np.radians([0.0, 90.0, 180.0, 270.0])))) == pytest.approx(
         [0.0, 90.0, 180.0, 270.0]
     )  # a tie: element 1 stays the start
+    off = shortest_lags(np.array([0.0, np.exp(-1j * np.radians(100.0)), np.exp(-1j * np.radians(200.0))]))
+    assert np.degrees(off) == pytest.approx([0.0, 0.0, 100.0])  # an element switched off takes no line
     rng = np.random.default_rng(7)
     for _ in range(200):
         w = rng.uniform(0.5, 1.0, 4) * np.exp(1j * rng.uniform(-np.pi, np.pi, 4))

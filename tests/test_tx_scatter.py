@@ -806,3 +806,25 @@ def test_a_misphased_arrays_vertical_cost_is_read_where_it_hears():
     row = next(t for t in r.to_dict()["tx_vertical"] if t["antenna"] == "pair")
     assert row["alone"]["rdf_db"] > 5.0 and row["alone"]["front_to_back_db"] > 5.0  # its front: where it hears
     assert row["cost_db"] > 1.0 and "tx-vertical-cost" in codes
+
+
+@pytest.mark.parametrize("bearing", [0, 180])
+def test_a_broadside_pairs_lobe_is_the_one_toward_its_bearing(bearing):
+    """A pair half a wavelength apart east-west in phase has two lobes, north and south, 0.2 dB apart beside the
+    vertical: its bearing says which one it is built for, so its figures and the vertical's cost are read there and
+    no lobe-away warning is given (the stronger one, north, was taken: built for the south, it was told to check
+    its phases)."""
+    import snrgain
+    from snrgain.antennas.array import main_lobe_rad
+
+    text = MISPHASED.replace("[[25, 25], [42, 42]]", "[[60, 60], [142, 60]]").replace("[90, 0]", "[0, 0]")
+    text = text.replace("bearing = 45\nsteering", f"bearing = {bearing}\nsteering")
+    r = snrgain.evaluate(text)
+    assert "lobe-away-from-bearing" not in {n.code for n in r.notices}
+    pair = next(a for a in r.to_dict()["tx_vertical"] if a["antenna"] == "pair")
+    assert pair["alone"]["rdf_db"] > 0.0
+    az = np.radians(np.arange(0.0, 360.0, 1.0))
+    two = np.maximum(np.cos(az) ** 2, 1e-3)  # lobes north and south, equal
+    assert np.degrees(main_lobe_rad(az, two, np.radians(170.0))) == pytest.approx(180.0)
+    assert np.degrees(main_lobe_rad(az, two, np.radians(10.0))) == pytest.approx(0.0)
+    assert np.degrees(main_lobe_rad(az, two * (1 + 0.5 * np.cos(az)), np.radians(180.0))) == pytest.approx(0.0)

@@ -543,13 +543,14 @@ class Array(Antenna):
     def front(self, freq_hz: float) -> tuple[float, float]:
         """(bearing, elevation) [rad] the array's figures are read toward: its ``bearing`` at its aiming elevation
         where auto steering aimed it there (RDF, front-to-back, end-fire); else (given weights, weights set for the
-        SNR toward the target nearest the bearing, a phasing unit) its main lobe at that elevation, 1 deg steps: a
-        misphased array's figures are read where it hears, not where it was meant to."""
+        SNR toward the target nearest the bearing, a phasing unit) its main lobe at that elevation, 1 deg steps
+        (:func:`main_lobe_rad`): a misphased array's figures are read where it hears, not where it was meant to."""
         el = float(self.params.auto_elevation)
         if getattr(self.params, "steering", None) == "auto" and self.auto_for != "snr":
             return float(self.params.bearing), el
         az = np.radians(np.arange(0.0, 360.0, 1.0))
-        return float(az[int(np.argmax(self.gain_linear(freq_hz, az, np.full(az.shape, el))))]), el
+        gain = self.gain_linear(freq_hz, az, np.full(az.shape, el))
+        return main_lobe_rad(az, gain, float(self.params.bearing)), el
 
     def effective_delays_s(self, freq_hz: float) -> np.ndarray:
         """Each element's delay with its phase turned into time at ``freq_hz``, the earliest element at 0 [s]: what
@@ -559,6 +560,24 @@ class Array(Antenna):
         else:
             d = np.array([t + p / (2 * np.pi * freq_hz) for t, p, _ in self.weights])
         return d - d.min()
+
+
+LOBE_TIE_DB = 1.0
+"""Lobes within this of the strongest count as main lobes (:func:`main_lobe_rad`): a broadside pair's two, a
+bidirectional array's, equal but for the transmitting vertical's re-radiation."""
+
+
+def main_lobe_rad(azimuth_rad, gain, bearing_rad: float) -> float:
+    """The azimuth [rad] of a pattern's main lobe on a closed ring of azimuths (``gain`` linear, in ring order): of
+    its peaks within LOBE_TIE_DB of the strongest, the one nearest ``bearing_rad`` (a broadside pair in phase has
+    two equal lobes; its bearing says which one it is built for), the first where two are as near."""
+    g = np.asarray(gain, dtype=float)
+    az = np.asarray(azimuth_rad, dtype=float)
+    peak = (g >= np.roll(g, 1)) & (g >= np.roll(g, -1)) & (g >= g.max() * 10 ** (-LOBE_TIE_DB / 10))
+    if not peak.any():  # a flat ring: every azimuth is a peak of the same height
+        peak = g >= g.max()
+    off = np.abs((az - bearing_rad + np.pi) % (2 * np.pi) - np.pi)
+    return float(az[np.flatnonzero(peak)[int(np.argmin(off[peak]))]])
 
 
 def position_factor(amplitudes, positions, kx, ky) -> np.ndarray:
@@ -632,6 +651,7 @@ def shortest_lags(weights) -> np.ndarray:
     def lags_from(k):
         lag = np.mod(-np.angle(w * np.conj(w[k])), 2 * np.pi)
         lag[k] = 0.0  # |w_k|^2, real but for a rounding of its imaginary part (a fused multiply-add)
+        lag[w == 0] = 0.0  # an element switched off takes no line (np.angle(-0+0j) is pi)
         return np.where(lag > 2 * np.pi - 1e-12, 0.0, lag)  # a lag a rounding short of a period is none
 
     starts = [k for k in range(w.size) if w[k] != 0] or [0]  # an element switched off gives no phase to count from

@@ -83,15 +83,17 @@ class Combination(_Array):
     def steering_label(self) -> str:
         return "auto (snr)" if self.optimised else "given"
 
-    def attach(self, parts) -> None:
-        """Give the combination its two antennas (built Antenna objects, in the order of ``antennas``)."""
+    def attach(self, parts, origin=(0.0, 0.0)) -> None:
+        """Give the combination its two antennas (built Antenna objects, in the order of ``antennas``); a part without
+        a ``position`` stands at ``origin`` (the reference's place: where the placed sources' pickup hears it too,
+        snrgain.model.placed.antenna_point)."""
         problems = []
         for i, part in enumerate(parts):
             if part.family in ("combination",):
                 problems.append((f"antennas.{i + 1}", "a combination cannot combine a combination"))
             elif type(part).complex_response is Antenna.complex_response:
                 problems.append((f"antennas.{i + 1}", f"the {part.family!r} family carries no phase"))
-        pos = [part.params.position or (0.0, 0.0) for part in parts]
+        pos = [part.params.position or tuple(origin) for part in parts]
         if parts[0] is parts[1]:
             problems.append(("antennas", "name two different antennas"))
         elif not problems:

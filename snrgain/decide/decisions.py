@@ -18,13 +18,16 @@ LOBE_ELEVATION_DEG = 15.0
 
 
 def main_lobe_deg(antenna, freq_hz: float) -> float | None:
-    """Bearing [deg] of an array's azimuth maximum at LOBE_ELEVATION_DEG, for the families steered by phases or
-    delays (``phased``); None for the others."""
+    """Bearing [deg] of an array's main lobe at LOBE_ELEVATION_DEG (snrgain.antennas.array.main_lobe_rad: of equal
+    lobes the one nearest its bearing), for the families steered by phases or delays (``phased``); None for the
+    others."""
+    from snrgain.antennas.array import main_lobe_rad
+
     if not antenna.phased:
         return None
     az = np.arange(0.0, 360.0, 1.0)
-    g = antenna.gain_dbi(freq_hz, az, LOBE_ELEVATION_DEG)
-    return float(az[int(np.argmax(g))])
+    g = antenna.gain_linear(freq_hz, np.radians(az), np.full(az.shape, np.radians(LOBE_ELEVATION_DEG)))
+    return float(np.degrees(main_lobe_rad(np.radians(az), g, float(antenna.params.bearing))))
 
 
 def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) -> list[Notice]:

@@ -91,28 +91,40 @@ def noise_shifts_db(sc, antennas: list, results: list, src, step_m: float = DISP
 def resetting_snr_db(sc, skies, antennas: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
     """The change of each automatically set phasing unit's SNR [dB] (a combination with setting "auto") when it is
     set again for ``src`` moved ``step_m`` along each of DIRECTIONS: the highest SNR any setting gives under the
-    noise with the source moved over the SNR of its setting as chosen under the noise now, both from the steering's
-    own forms (snrgain.model.steering.sky_forms, placed_forms: the noise averaged over the months and hours, the
-    chain's counted).  Shape (directions, antennas); NaN for every other antenna (and every antenna without
-    ``skies``) and for a move :func:`moves` leaves out."""
+    noise with the source moved over the highest under the noise now, both from the steering's own forms
+    (snrgain.model.steering.sky_forms, placed_forms: the noise averaged over the months and hours, the chain's
+    counted), the moved source's level kept where it was read (``read_on``: the form rescaled by the reference's
+    change against that antenna, as :func:`noise_shifts_db` keeps it; an Fa the pickup's own).  Shape
+    (directions, antennas); NaN for every other antenna (and every antenna without ``skies``) and for a move
+    :func:`moves` leaves out."""
     from snrgain.antennas.steering import free_optimum, ratio
+    from snrgain.model.placed import pickup
     from snrgain.model.steering import placed_forms, sky_forms
 
     out = np.full((len(DIRECTIONS), len(antennas)), np.nan)
-    if skies is None or skies.maps is None:
+    units = [k for k in range(1, len(antennas)) if antennas[k].composite and getattr(antennas[k], "optimised", False)]
+    if skies is None or skies.maps is None or not units:
         return out
     taken = moves(sc, antennas, src, step_m)
-    for k in range(1, len(antennas)):
+    names = [a.name for a in antennas]
+    anchor = names.index(src.read_on) if src.level_dbm is not None and src.read_on in names[1:] else None
+    if anchor is not None:  # the reference's pickup against the reading's antenna, at the written place and moved
+        pair = [antennas[0], antennas[anchor]]
+        s0 = pickup(_with_source(sc, src), pair)[0][src.name]
+    for k in units:
         ant = antennas[k]
-        if not (ant.composite and getattr(ant, "optimised", False)):
-            continue
         held = placed_forms(_with_source(sc, src), skies, ant).get(src.name)
         if held is None:  # a unit that stands nowhere in particular: its setting held, as for any antenna
             continue
         signal, noise, _ = sky_forms(sc, skies, ant, k)
-        now = ratio(np.conj(ant.weights_at(sc.freq_hz)), signal, noise)
+        now = ratio(free_optimum(signal, noise), signal, noise)  # set as the forms set it (0 dB for no move)
         for i, p in taken:
-            moved = noise - held + placed_forms(_with_source(sc, replace(src, position_m=p)), skies, ant)[src.name]
+            moved_src = replace(src, position_m=p)
+            scale = 1.0
+            if anchor is not None:
+                s1 = pickup(_with_source(sc, moved_src), pair)[0][src.name]
+                scale = float((s1[0] / s1[1]) / (s0[0] / s0[1]))
+            moved = noise - held + scale * placed_forms(_with_source(sc, moved_src), skies, ant)[src.name]
             out[i, k] = 10 * np.log10(ratio(free_optimum(signal, moved), signal, moved) / now)
     return out
 
@@ -122,7 +134,8 @@ def shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEME
     antenna's (:func:`noise_shifts_db`; the signal stays), and for a phasing unit set automatically (with ``skies``)
     the reference's noise change plus the unit's SNR change set again (:func:`resetting_snr_db`); the reference's
     column 0."""
-    noise = _unit_noise(noise_shifts_db(sc, antennas, results, src, step_m), resetting_snr_db(sc, skies, antennas, src))
+    reset = resetting_snr_db(sc, skies, antennas, src, step_m)
+    noise = _unit_noise(noise_shifts_db(sc, antennas, results, src, step_m), reset)
     return noise[:, :1] - noise
 
 

@@ -98,6 +98,9 @@ def feed_line_temperature(sc: Scenario, grid, skies, ant, k: int) -> float:
     path and the elements' add in power), so the steering takes it as it takes the chain's noise."""
     if ant.name not in (getattr(sc, "feed_lines", None) or {}):
         return 0.0
+    if hasattr(bare(ant), "with_weights"):  # any weights (the same answer): a copy, the scenario's own untouched
+        own = bare(ant).with_weights(sc.freq_hz, np.ones(len(bare(ant).weights)), "feed line")
+        ant = own if bare(ant) is ant else beside(own, ant.scatterers)
     sub = with_candidates(sc, [ant], k)
     p = products(sub, [sc.antennas[0], ant], grid, skies)
     if p.feed_lines is None:

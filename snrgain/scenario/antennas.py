@@ -1,7 +1,6 @@
-"""[reference] and [[candidate]]: the antenna tables built by their families (the site's ground and the scenario's
-folder filled in, an antenna's own ``chain`` and ``place`` tables taken out), combinations given their two
-antennas, names checked.  A switched candidate (``directions``) is built as one antenna per state (see
-:mod:`snrgain.scenario.switched`)."""
+"""[reference] and [[candidate]]: the antenna tables built by their families (the site's ground and folder filled in,
+their own ``chain`` and ``place`` tables taken out), combinations given their antennas, names checked; a switched
+candidate (``directions``) built as one antenna per state (:mod:`snrgain.scenario.switched`)."""
 
 from __future__ import annotations
 
@@ -91,9 +90,10 @@ def antenna_from_table(spec: dict, where: str, *, site_ground, base_dir: Path | 
 
 def attach_combinations(antennas: list[Antenna], wheres: list[str], failed=frozenset()) -> list[tuple[str, str]]:
     """Give every combination its two antennas, named by ``antennas`` ("reference" or the reference's name names
-    the reference); problems as (path, message).  A part named among ``failed`` (tables whose own problems are
-    said already) is not said again."""
+    the reference; a part without a position stands at the reference's place); problems as (path, message).  A part
+    named among ``failed`` (tables whose own problems are said already) is not said again."""
     by_name = {a.name: a for a, w in zip(antennas, wheres) if w != "reference"}
+    origin = (antennas[0].params.position if antennas and wheres[0] == "reference" else None) or (0.0, 0.0)
     if antennas and wheres[0] == "reference":
         by_name["reference"] = antennas[0]
         by_name.setdefault(antennas[0].name, antennas[0])
@@ -105,14 +105,14 @@ def attach_combinations(antennas: list[Antenna], wheres: list[str], failed=froze
         for i, name in enumerate(ant.params.antennas):
             if name not in by_name and name in failed:
                 continue
-            if name not in by_name:
-                known = ", ".join(repr(n) for n in by_name)
+            if name not in by_name:  # every other antenna written, those with problems of their own too
+                known = ", ".join(repr(n) for n in [*by_name, *sorted(failed - set(by_name))] if n != ant.name)
                 out.append((f"{where}.antennas.{i + 1}", f"no antenna named {name!r}; the scenario has {known}"))
             else:
                 parts.append(by_name[name])
         if len(parts) == 2:
             try:
-                ant.attach(parts)
+                ant.attach(parts, origin)
             except SpecError as exc:
                 out.extend((f"{where}.{p}", m) for p, m in exc.problems)
     return out
