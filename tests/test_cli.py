@@ -411,3 +411,45 @@ def test_a_scenario_copy_in_another_folder_finds_the_scenarios_files(tmp_path):
     assert "the copy names 'patterns/cardioid-pair.csv' from its own folder" in res.output
     sc = load(out)
     assert any(a.family == "tabulated" for a in sc.candidates)
+
+
+@pytest.mark.parametrize("width", [120, 100, 90])
+def test_a_narrow_terminal_wraps_names_and_keeps_every_number(width):
+    """Long antenna names (a switched antenna's states) wrap in their column; no number is cut ('+11...' was printed
+    where the names took the room)."""
+    import io
+
+    from rich.console import Console
+
+    import snrgain
+    from snrgain.outputs.output import target_table
+    from tests.conftest import MINIMAL
+
+    long = "a reversible Beverage on the back field by the pond"
+    r = snrgain.evaluate(MINIMAL.replace('name = "iso"', f'name = "{long}"'))
+    out = io.StringIO()
+    Console(width=width, file=out, force_terminal=False).print(target_table(r, 0))
+    text = out.getvalue()
+    assert "…" not in text
+    from snrgain.units import number_text
+
+    row = r.antenna(long)
+    cells = [number_text(float(v[0]), "{:+.1f}") for v in (row.snr_gain_median_db, row.snr_gain_p10_db)]
+    assert f"{cells[0]} ({cells[1]} to" in text  # the gain and its band whole
+    assert " ref " in text and "(reference)" in text  # the '#' column kept
+
+
+def test_a_yardstick_ranked_above_the_best_is_marked():
+    """The isotropic yardstick is ranked but never the best (the verdict and the plan skip it): its row says so."""
+    import io
+
+    from rich.console import Console
+
+    import snrgain
+    from snrgain.outputs.output import target_table
+    from tests.conftest import MINIMAL
+
+    r = snrgain.evaluate(MINIMAL)
+    out = io.StringIO()
+    Console(width=140, file=out, force_terminal=False).print(target_table(r, 0))
+    assert "iso (a yardstick, not to build)" in out.getvalue()

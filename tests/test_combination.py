@@ -117,3 +117,20 @@ def test_a_part_without_a_position_stands_at_the_references_place():
     text = text.replace("[reference]\n", "[reference]\nposition = [30, 20]\n", 1)
     unit = next(a for a in load(text).candidates if a.name == "pair")
     assert unit.positions.tolist() == [[30.0, 10.0], [30.0, 20.0]]
+
+
+def test_a_unit_made_the_reference_says_it_is_set_otherwise():
+    """Ranked over another antenna (rank --reference), a unit set automatically is set for RDF, not under the noise:
+    a warning says so (its figures differed from its row as a candidate without a word)."""
+    from snrgain.outputs.messages import notice_text
+    from snrgain.scenario import load
+
+    text = _scenario(_combo("pair"))
+    as_candidate = snrgain.evaluate(text)
+    assert not [n for n in as_candidate.notices if n.code == "reference-not-set-under-noise"]
+    r = snrgain.evaluate(load(text, reference="pair"))
+    said = [n for n in r.notices if n.code == "reference-not-set-under-noise"]
+    assert [n.antenna for n in said] == ["pair"]
+    assert notice_text(said[0]).startswith(
+        "pair (the reference): its phase and amplitude setting is set for the best RDF"
+    )

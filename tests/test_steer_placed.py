@@ -229,3 +229,14 @@ def test_the_feed_lines_share_leaves_the_scenarios_array_as_it_was():
     assert not own._steered
     assert feed_line_temperature(sc, grid, skies, sc.candidates[0], 1) > 0
     assert not own._steered
+
+
+def test_a_sources_stated_uncertainty_is_its_noise_deciles():
+    """The shed supply's 3 dB (its 10-90 % half-width) is its upper and lower decile in the noise table, as the
+    spreads take it, and counts in the P.372 Section 8 total (it showed 0.0 and 0.0)."""
+    import snrgain
+
+    r = snrgain.evaluate(SITE.replace("AUTO", "snr"))
+    c = r.noise.components["shed supply"]
+    assert np.allclose(c["du_db"], 3.0) and np.allclose(c["dl_db"], 3.0)
+    assert np.all(r.noise.total_du_db > 0.0)

@@ -34,7 +34,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     """What the user should know about the results, as codes and numbers (``plan``: the station plan, whose
     switched antennas' states a notice on one of them prefers; ``skies``: the noise sky, with which a phasing unit
     set automatically is set again on a placed source moved, snrgain.decide.source_place)."""
-    out = []
+    out = reference_setting_notices(sc)
     for r in antennas:
         if r.receiver_limited:
             needed = r.preamp_gain_needed_db
@@ -144,6 +144,20 @@ LOCAL_DOMINATES_DB = 6.0
 """A local source this far above the rest of an antenna's noise (the median over the listening hours) is most of it:
 said in a notice (snrgain's threshold: four times the rest's power, 80 % of the noise; at 3 dB every demo's wires
 were named, an explanation more than a warning)."""
+
+
+def reference_setting_notices(sc: Scenario) -> list[Notice]:
+    """``reference-not-set-under-noise``: a reference that would be set under the site's noise as a candidate (an
+    array steered for SNR, a phasing unit set automatically, a resistor chosen for SNR) is set for RDF toward its
+    bearing instead (the placed sources' noise is counted through the reference, so its setting cannot follow
+    it); values ``what``: "resistor", "phasing" or (a phasing unit) "phase and amplitude setting"."""
+    ref = sc.antennas[0]
+    if not getattr(ref, "uses_sky", False) or not getattr(ref, "optimised", True):
+        return []
+    what = "resistor" if hasattr(ref, "termination_under_sky") else None
+    if what is None and hasattr(ref, "under_sky"):
+        what = "phase and amplitude setting" if ref.composite else "phasing"
+    return [] if what is None else [Notice("reference-not-set-under-noise", ref.name, {"what": what})]
 
 
 def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[Notice]:

@@ -449,7 +449,7 @@ def rank_for_target(
     to TIE_DB keep the scenario's order, as the station plan takes them (snrgain.decide.plan: a tie goes to the
     earlier antenna), so rounding in the last digit never makes two answers."""
     order = sorted(candidates, key=lambda a: _rank_key(a.snr_gain_median_db[target_index]))
-    can_build = [a for a in order if _buildable(a)] or order  # a yardstick (isotropic) is ranked, never the best
+    can_build = [a for a in order if buildable(a)] or order  # a yardstick (isotropic) is ranked, never the best
     best = can_build[0]
     others = [a for a in can_build[1:] if a.group is None or a.group != best.group]
     runner = others[0] if others else reference
@@ -457,7 +457,7 @@ def rank_for_target(
     return TargetResult(target_name, [a.name for a in order], best.name, runner.name, margin)
 
 
-def _buildable(a: AntennaResult) -> bool:
+def buildable(a: AntennaResult) -> bool:
     """Whether an antenna is one to build (the station plan's rule, snrgain.decide.plan: not a yardstick)."""
     from snrgain.antennas import FAMILIES
 

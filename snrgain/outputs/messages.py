@@ -60,6 +60,13 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
             f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
         )
+    if n.code == "reference-not-set-under-noise":
+        return (
+            f"{n.antenna} (the reference): its {v['what']} is set for the best RDF toward its bearing, not for the "
+            "SNR under the site's noise as when it is ranked as a candidate (a reference is not set under the noise: "
+            "every antenna's noise from a placed source is counted through it), so its figures here differ from its "
+            "row in a ranking over another antenna; rank it as a candidate to see it set for the SNR"
+        )
     if n.code == "lobe-away-from-bearing":
         return (
             f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "

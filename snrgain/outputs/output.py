@@ -200,6 +200,7 @@ def target_table(r: Results, i: int, lab=None):
     from rich.text import Text
 
     from snrgain.model.labelled import labelled
+    from snrgain.model.results import buildable
 
     lab = labelled(r) if lab is None else lab
     t = r.targets[i]
@@ -213,25 +214,13 @@ def target_table(r: Results, i: int, lab=None):
         caption=f"SNR gain over {lab.attrs['reference']}; {spread_note(r)}",
         caption_justify="left",
     )
-    table.add_column("#", justify="right", no_wrap=True)
-    table.add_column("antenna", no_wrap=True, max_width=32)
-    for label in (
-        "SNR gain dB\nmedian (10-90 %)",
-        f"P(>={lab.attrs['beat_by_db']:g}\ndB)",
-        "RDF\ndB",
-        "F/B\ndB",
-        "noise dBm\n(S-meter)",
-        "margin\ndB",
-        "preamp\ndB",
-    ):
-        table.add_column(label, justify="right", no_wrap=True)
-
     names = [str(n) for n in lab.coord("antenna")]
     spread = lab.get("snr_gain_quantile_db", target=i)  # (antenna, quantile): 10 %, median, 90 % [dB]
     ranks = lab.get("rank_for_target", target=i)
     is_reference = lab.coord("is_reference")
     from snrgain.model.spread import median  # np.median's, without loading numpy.ma
 
+    rows = []
     for k in np.argsort(ranks, kind="stable"):  # the reference (rank 0), then the ranking
         noise = float(median(lab.get("noise_dbm", antenna=k)))
         margin = float(np.min(lab.get("margin_db", antenna=k)))
@@ -242,9 +231,12 @@ def target_table(r: Results, i: int, lab=None):
             p10, med, p90 = spread[k]
             rank, gain, style = str(int(ranks[k])), f"{_f(med)} ({_f(p10)} to {_f(p90)})", None
             prob = f"{100 * float(lab.get('probability_beats_reference', antenna=k, target=i)):.0f} %"
-        table.add_row(
+        name = Text(names[k])
+        if not bool(is_reference[k]) and not buildable(r.antenna(names[k])):
+            name.append(" (a yardstick, not to build)", style="dim")  # ranked, never the best (its verdict below)
+        cells = [
             rank,
-            Text(names[k]),
+            name,
             gain,
             prob,
             _f(lab.get("rdf_db", antenna=k, target=i)),
@@ -252,8 +244,27 @@ def target_table(r: Results, i: int, lab=None):
             f"{noise:.1f} ({s_units(noise)})",
             Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
             _preamp_cell(limited, lab.get("preamp_gain_needed_db", antenna=k)),
-            style=style,
-        )
+        ]
+        rows.append((cells, style))
+    labels = (
+        "#",
+        "antenna",
+        "SNR gain dB\nmedian (10-90 %)",
+        f"P(>={lab.attrs['beat_by_db']:g}\ndB)",
+        "RDF\ndB",
+        "F/B\ndB",
+        "noise dBm\n(S-meter)",
+        "margin\ndB",
+        "preamp\ndB",
+    )
+    for c, label in enumerate(labels):
+        if c == 1:  # a long name wraps; the numbers never shrink (a narrow terminal cut them to '+11...')
+            table.add_column(label, overflow="fold", max_width=32)
+            continue
+        width = max(len(line) for cell in [label, *(row[c] for row, _ in rows)] for line in str(cell).split("\n"))
+        table.add_column(label, justify="right", no_wrap=True, min_width=width)
+    for cells, style in rows:
+        table.add_row(*cells, style=style)
     best, runner_up = str(lab.coord("best")[i]), str(lab.coord("runner_up")[i])
     p10, med, p90 = spread[names.index(best)]
     reference = lab.attrs["reference"]
@@ -393,7 +404,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             )
         if "termination_ohm" in b:
             far = f"; with a far ground of {b['far_ground_ohm']:.0f} ohm" if "far_ground_ohm" in b else ""
-            bits.append(f"termination {b['termination_ohm']:.0f} ohm (fit {b['termination_standard_ohm']:g} ohm{far})")
+            e12 = f"nearest E12 value {b['termination_standard_ohm']:g} ohm"
+            bits.append(f"termination {b['termination_ohm']:.0f} ohm ({e12}{far})")
             ans = b.get("termination_answer")
             if ans:  # the one answer (wiredesign.termination_answer), as `snrgain wire` prints it
                 crit = {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "|Z0|", "snr": "SNR gain"}[

@@ -766,7 +766,10 @@ def snr_over_hours(results, *, ax=None):
         axi.set_xlabel("UTC hour (the target's listening window, in order)")
     axes[0].legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False)
     band = "\nbands and bars: atmospheric noise at its P.372 upper and lower deciles" if atm else ""
-    title = f"SNR gain over the reference through the hours, {lab.attrs['frequency_hz'] / 1e6:g} MHz{band}"
+    title = (
+        f"SNR gain over the reference through the hours, {lab.attrs['frequency_hz'] / 1e6:g} MHz{band}\n"
+        "(nominal: the site's ground, every noise at its median level; the table's median also spreads them)"
+    )
     if own:
         fig.suptitle(title, fontsize=10)
         _place(fig, left=0.8, right=2.3, top=0.85, bottom=0.6, hgap=0.85)

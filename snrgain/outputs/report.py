@@ -360,7 +360,9 @@ def figure_makers(r, *, plan: dict | None = None) -> list[tuple[str, object, str
             "SNR gain over the hours",
             partial(plots.snr_over_hours, r),
             "Per target, mean over its months, over its own listening window in order (a night across midnight "
-            "is one span); bands and bars show atmospheric noise at its P.372 deciles where included.",
+            "is one span): the nominal SNR gain, at the site's ground with every noise at its median level (the "
+            "tables' median also spreads the ground and the noise levels, and can sit lower); bands and bars show "
+            "atmospheric noise at its P.372 deciles where included.",
         )
     )
     figs.append(

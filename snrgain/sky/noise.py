@@ -196,10 +196,11 @@ def static_components(
             raise ValueError(f"local source {src.name!r}: a level read on the reference antenna needs that antenna")
         else:
             fa = level_to_fa_db(src, place, reference_gain, reference_chain_gain_db)
+        spread = float(getattr(src, "uncertainty_db", 0.0))  # its stated 10-90 % half-width, as the spreads take it
         out.append(
             sky.compact_component(
                 src.name,
-                level=p372.NoiseLevel(fa, 0.0, 0.0),
+                level=p372.NoiseLevel(fa, spread, spread),
                 azimuth_rad=src.bearing_rad,
                 elevation_rad=src.elevation_rad,
                 spread_rad=src.spread_rad,
