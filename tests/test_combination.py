@@ -134,3 +134,16 @@ def test_a_unit_made_the_reference_says_it_is_set_otherwise():
     assert notice_text(said[0]).startswith(
         "pair (the reference): its phase and amplitude setting is set for the best RDF"
     )
+
+
+def test_a_setting_beyond_a_units_range_asks_for_an_attenuator():
+    """Two inputs 30 dB or more apart: the build sheet names the weaker one's attenuator (a unit's controls commonly
+    span 20-30 dB, common practice); closer, nothing is said."""
+    from snrgain.outputs.output import build_lines
+
+    r = snrgain.evaluate(_scenario(_combo("pair", (135, -34))))
+    text = dict(build_lines(r))["pair"]
+    assert "sense enters 34 dB below vertical: beyond the 30 dB" in text
+    assert "a fixed attenuator in sense's input" in text
+    r = snrgain.evaluate(_scenario(_combo("pair", (135, -6))))
+    assert "attenuator" not in dict(build_lines(r))["pair"]

@@ -266,3 +266,18 @@ def test_a_unit_set_again_says_so():
     assert "with the unit set again on it where it then stands (as by ear), the gain changes by -4.2 to +1.0" in text
     held = notice_text(Notice("source-position", "flag", {**values, "share": 0.3, "reset": False}))
     assert "with this antenna's resistor and phasing as chosen now, the gain changes by -4.2" in held
+
+
+def test_the_plan_marks_an_antenna_whose_gain_rests_on_the_place(tmp_path):
+    """An antenna of the plan whose source-position warning falls by 6 dB or more is marked under its line in the
+    plan (a tester's plan recommended a +36 dB null 12 cm wide without a word there)."""
+    from snrgain.model.results import Notice
+    from snrgain.outputs.output import plan_text
+
+    _, _, r = _decided(NEAR, tmp_path)
+    assert r.plan.antennas == ["Beverage west"]
+    assert "rests on exactly where" not in str(plan_text(r))
+    values = {"source": "barn light", "step_m": 5.0, "directions": ["north"], "low_db": -12.5, "high_db": 1.0}
+    r.notices.append(Notice("source-position", "Beverage west", {**values, "share": 0.9}))
+    text = str(plan_text(r))
+    assert "! its gain rests on exactly where 'barn light' stands: -12.5 dB with it 5 m off" in text

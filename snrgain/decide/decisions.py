@@ -146,6 +146,14 @@ said in a notice (snrgain's threshold: four times the rest's power, 80 % of the 
 were named, an explanation more than a warning)."""
 
 
+def _part_indices(sc: Scenario, ant) -> tuple[int, ...]:
+    """The indices among the scenario's antennas of a phasing unit's own antennas (the station plan builds them
+    with it); () for any other antenna."""
+    if not ant.composite:
+        return ()
+    return tuple(k for k, a in enumerate(sc.antennas) if any(a is e for e in ant.elements) and k > 0)
+
+
 def reference_setting_notices(sc: Scenario) -> list[Notice]:
     """``reference-not-set-under-noise``: a reference that would be set under the site's noise as a candidate (an
     array steered for SNR, a phasing unit set automatically, a resistor chosen for SNR) is set for RDF toward its
@@ -268,6 +276,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         buildable=[ant.buildable for ant in sc.antennas],
         target_times=[(list(tt.months), list(tt.utc_hours)) for tt in sc.target_times],
         groups=[a.group for a in antennas],
+        parts=[_part_indices(sc, ant) for ant in sc.antennas],
     )
     return Results(
         source=sc.source,

@@ -107,13 +107,16 @@ def station_plan(
     buildable=None,
     target_times=None,
     groups=None,
+    parts=None,
 ) -> Plan:
     """The station plan (module docstring); ``names[0]`` is the reference.
 
     ``gains`` (antennas, targets): the median SNR gain over the reference [dB], the reference's row 0;
     ``buildable[i]`` False keeps antenna i out of the plan (a yardstick); ``target_times[t]``: (months, utc_hours)
     each target is listened at, for the services; ``groups[i]``: the switched antenna that antenna i is a state of
-    (None: an antenna of its own); the states of one group are one member of the plan.
+    (None: an antenna of its own); the states of one group are one member of the plan; ``parts[i]``: the antennas
+    (indices) a phasing unit i is built over, which come with it (each may serve a target alone: the unit passes it
+    alone).
 
     >>> g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
     >>> p = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]))
@@ -125,6 +128,10 @@ def station_plan(
     >>> s = station_plan(["ref", "sq N", "sq S"], g, np.array([0.5, 0.5]), max_antennas=1, groups=[None, "sq", "sq"])
     >>> s.antennas, round(s.gain_db, 2), s.states, s.by_target[1][0].antenna
     (['sq'], 5.11, {'sq': ['sq N', 'sq S']}, 'sq S')
+    >>> u = np.array([[0.0, 0.0], [5.0, 3.0], [0.0, 0.0], [7.0, 1.0]])  # 'unit' over 'bev' and 'whip'
+    >>> p2 = station_plan(["ref", "bev", "whip", "unit"], u, np.array([0.5, 0.5]), parts=[(), (), (), (1, 2)])
+    >>> p2.antennas, [p2.by_target[t][0].antenna for t in (0, 1)]
+    (['unit'], ['unit', 'bev'])
     """
     gains = np.nan_to_num(np.asarray(gains, dtype=float), nan=0.0)
     gains[0] = 0.0
@@ -140,8 +147,13 @@ def station_plan(
             units.append((i,))
             unit_names.append(names[i] if groups[i] is None else groups[i])
 
+    parts = [()] * len(names) if parts is None else [tuple(p or ()) for p in parts]
+
+    def built(u) -> tuple[int, ...]:  # a member's antennas and what comes with them (a unit's own antennas)
+        return (*units[u], *(j for i in units[u] for j in parts[i]))
+
     def value(chosen_units) -> float:
-        return worth(gains, weights, [i for u in chosen_units for i in units[u]])
+        return worth(gains, weights, [i for u in chosen_units for i in built(u)])
 
     n = len(units)
     limit = n if max_antennas is None else min(max_antennas, n)
@@ -174,7 +186,7 @@ def station_plan(
         added.append(step)
         total += step
         remaining.remove(pick)
-    members = [0, *(i for u in order for i in units[u])]
+    members = list(dict.fromkeys([0, *(i for u in order for i in built(u))]))
     unit_of = {i: u for u, members_u in enumerate(units) for i in members_u}
     by_target, not_best, serving = {}, {}, set()
     for t in range(gains.shape[1]):

@@ -354,12 +354,43 @@ def plan_text(r: Results):
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
         out.append(f"  {k + 1}. {name}{switched_text(r, name)}: adds {signed_text(added)} dB{also_build(r, k)}\n")
+        fragile = rests_on_place_text(r, name)
+        if fragile:
+            out.append(f"     {fragile}\n", style="bold")
     for t, rows in sorted(p.by_target.items()):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({signed_text(s.snr_gain_db)} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
     for t, why in sorted(p.not_best.items()):
         out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why)}\n")
     return out
+
+
+UNIT_RANGE_DB = 30.0
+"""A phasing unit's setting whose two inputs differ by this much or more is said to need a fixed attenuator: a
+unit's amplitude control commonly spans 20-30 dB (common practice, not a published figure)."""
+
+PLACE_FRAGILE_DB = 6.0
+"""A plan's antenna whose SNR gain falls by this much or more with a placed source 5 m off (its source-position
+warning) is marked where the plan names it: a gain that rests on a null at the written place."""
+
+
+def rests_on_place_text(r: Results, name: str) -> str:
+    """What the plan says under an antenna (by its name, or a switched antenna's group) whose SNR gain falls by
+    PLACE_FRAGILE_DB or more with a placed source moved 5 m (snrgain.decide.source_place); "" otherwise."""
+    worst = None
+    for n in r.notices:
+        group = next((c.group for c in r.candidates if c.name == n.antenna), None)
+        if n.code != "source-position" or n.values.get("reference") or name not in (n.antenna, group):
+            continue
+        if n.values["low_db"] <= -PLACE_FRAGILE_DB and (worst is None or n.values["low_db"] < worst.values["low_db"]):
+            worst = n
+    if worst is None:
+        return ""
+    v = worst.values
+    return (
+        f"! its gain rests on exactly where {v['source']!r} stands: {signed_text(v['low_db'])} dB with it "
+        f"{v['step_m']:g} m off (see its warning); confirm where the source radiates from before building for it"
+    )
 
 
 def build_lines(r: Results) -> list[tuple[str, str]]:
@@ -472,10 +503,21 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
         if b.get("setting"):  # two antennas through a phase and amplitude unit
             st = b["setting"]
             first, second = b["antennas"]
-            bits.append(
-                f"add {second} to {first} through a phase and amplitude unit: {second} lagging "
-                f"{st['phase_lag_deg']:.0f} deg at {signed_text(st['amplitude_db'])} dB"
-            )
+            amp = st["amplitude_db"]
+            if not np.isfinite(amp):  # the unit passes the first antenna alone (the other input off)
+                bits.append(f"the phase and amplitude unit passes {first} alone ({second}'s input off)")
+            else:
+                bits.append(
+                    f"add {second} to {first} through a phase and amplitude unit: {second} lagging "
+                    f"{st['phase_lag_deg']:.0f} deg at {signed_text(amp)} dB"
+                )
+            if np.isfinite(amp) and abs(amp) >= UNIT_RANGE_DB:
+                weak, strong = (first, second) if amp > 0 else (second, first)
+                bits.append(
+                    f"{weak} enters {abs(amp):.0f} dB below {strong}: beyond the {UNIT_RANGE_DB:g} dB a phasing "
+                    f"unit's controls commonly span (common practice), a fixed attenuator in {weak}'s input makes it "
+                    "up"
+                )
             if "loss_with_error_db" in st:
                 bits.append(f"a setting error of {st['error']} costs up to {st['loss_with_error_db']:.1f} dB")
         if "ground_loss_ohm" in b:

@@ -273,7 +273,7 @@ def _spread_words(r) -> str:
 
 def _plan(r) -> str:
     from snrgain.outputs.messages import PLAN_WORTH, plan_not_best_text
-    from snrgain.outputs.output import also_build, switched_text
+    from snrgain.outputs.output import also_build, rests_on_place_text, switched_text
 
     p = r.plan
     looks = looks_of(r)
@@ -285,7 +285,9 @@ def _plan(r) -> str:
     ]
 
     out += [
-        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {signed_text(a)} dB{_e(also_build(r, k))}</li>"
+        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {signed_text(a)} dB{_e(also_build(r, k))}"
+        + (f"<br><b>{_e(rests_on_place_text(r, n))}</b>" if rests_on_place_text(r, n) else "")
+        + "</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
     ]
     out.append(
