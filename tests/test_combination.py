@@ -147,3 +147,16 @@ def test_a_setting_beyond_a_units_range_asks_for_an_attenuator():
     assert "a fixed attenuator in sense's input" in text
     r = snrgain.evaluate(_scenario(_combo("pair", (135, -6))))
     assert "attenuator" not in dict(build_lines(r))["pair"]
+
+
+def test_a_small_loops_build_line_gives_its_size_and_plane():
+    """What to cut for a small loop: its width and height, and its plane both ways (a figure-eight has no single
+    'toward'); it gave its height alone."""
+    from snrgain.outputs.output import build_lines
+
+    loop = (
+        '[[candidate]]\nname = "box"\nfamily = "small-loop"\nwidth = "2 m"\nloop_height = "1.5 m"\nheight = "2 m"\n'
+        "bearing = 200\n\n"
+    )
+    text = dict(build_lines(snrgain.evaluate(_scenario(loop))))["box"]
+    assert "its plane along 20-200 deg" in text and "rectangle 2.00 x 1.50 m" in text

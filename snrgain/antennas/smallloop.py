@@ -155,6 +155,9 @@ class SmallLoop(Antenna):
         return {
             **super().describe(),
             "area_m2": self.area_m2,
+            "shape": "rectangle",
+            "width_m": self.params.width,
+            "loop_height_m": self.params.loop_height,
             "height_m": self.params.height,
             "bearing_deg": float(np.degrees(self.params.bearing)),
             "turns": self.params.turns,

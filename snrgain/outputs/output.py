@@ -422,7 +422,9 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(
                 f"height {length_both_text(b['height_m'], unit, 2 if unit == 'm' else 1, 1 if unit == 'm' else 2)}"
             )
-        if "bearing_deg" in b:
+        if "bearing_deg" in b and b.get("family") == "small-loop":  # a figure-eight: its plane, both ways
+            bits.append(f"its plane along {b['bearing_deg'] % 180:.0f}-{b['bearing_deg'] % 180 + 180:.0f} deg")
+        elif "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
         if b.get("switched", {}).get("how") == "port":  # one line, heard at its forward or its reverse port
             bits.append(f"{b['port']} port")
