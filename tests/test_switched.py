@@ -422,3 +422,41 @@ def test_a_switched_flag_may_say_auto_for_snr():
 
     flag = {"name": "flag", "family": "terminated-loop", "width": "8 m", "loop_height": "4 m", "directions": [45, 225]}
     assert len(load(scenario({**flag, "auto_for": "snr"})).candidates) == 2
+
+
+def test_the_short_build_gives_the_same_phases():
+    """The build with phase-reversing transformers (build.reversed_build): every element's phase, its short line's
+    delay plus 180 deg where reversed, is the plain build's plus one common turn (any set of delays), and its
+    longest line at most half the plain build's where it is given."""
+    from snrgain.decide.build import reversed_build
+
+    f = 3.525e6
+    half = 0.5 / f
+    rng = np.random.default_rng(11)
+    given = 0
+    for _ in range(300):
+        d = rng.uniform(0.0, 2 * half, 4)
+        d -= d.min()
+        short = reversed_build(d, f, 0.83)
+        if short is None:
+            continue
+        given += 1
+        lines = np.array(short["delays_ns"]) * 1e-9
+        assert lines.max() <= 0.5 * d.max() + 1e-15
+        phase = 2 * np.pi * f * lines + np.pi * np.array(short["reversed"])
+        turn = np.angle(np.exp(1j * (phase - 2 * np.pi * f * d)))
+        assert np.ptp(np.unwrap(turn)) < 1e-9 or np.ptp(np.mod(turn, 2 * np.pi)) < 1e-9
+        assert sum(short["reversed"]) <= 2
+    assert given > 20
+
+
+def test_a_switched_antenna_with_one_state_serving_may_be_built_one_way():
+    from snrgain.outputs.output import plan_text
+
+    one = scenario(
+        {**FOUR_SQUARE, "directions": ["45 deg", "225 deg"]},
+        target=[{"name": "Europe", "bearing": 45, "elevation": [5, 25]}],
+    )
+    r = pipeline.evaluate(one)
+    assert r.plan.states == {"four-square": ["four-square NE (45 deg)"]}
+    assert "four-square (only its NE (45 deg) state serves a target: it may be built one way)" in str(plan_text(r))

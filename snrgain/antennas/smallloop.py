@@ -61,6 +61,7 @@ class SmallLoopParams(WireSize, AntennaParams):
 @register("small-loop", SmallLoopParams, "small unterminated loop in a vertical plane (figure-eight, for nulling)")
 class SmallLoop(Antenna):
     placeable = True
+    both_ways = True  # a figure-eight: its bearing is its plane, heard both ways (the build sheet says so)
 
     def __init__(self, params: SmallLoopParams):
         super().__init__(params)

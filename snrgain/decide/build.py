@@ -71,6 +71,8 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             out[key] = d[key]
     if "length_m" in out:
         out["length_ft"] = out["length_m"] * FT_PER_M
+    if getattr(antenna, "both_ways", False):  # a figure-eight: its bearing is its plane
+        out["both_ways"] = True
     if hasattr(antenna, "termination_ohm"):
         term = antenna.termination_ohm(freq_hz)
         if term is not None:
@@ -124,6 +126,9 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             phasing_lengths_m=[coax_length_m(t, vf) for t in delays],
         )
         out["phasing_lengths_ft"] = [x * FT_PER_M for x in out["phasing_lengths_m"]]
+        short = reversed_build(delays, freq_hz, vf)
+        if short is not None:
+            out["reversed_build"] = short
         given = getattr(antenna, "given_lines", None)
         if given and any(given) and not antenna.optimised and min(t for t, _, _ in antenna.weights) >= 0:
             # the user's own line where an element was given one alone: its length repeated, and the other elements'
@@ -141,6 +146,35 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
     if sw is not None:
         out["switched"] = {"group": sw.group, "state": sw.state, "bearing_deg": sw.bearing_deg, "how": sw.how}
     return out
+
+
+REVERSED_SHORTER = 0.5
+"""The build with phase-reversing transformers is given where its longest line is at most this fraction of the
+plain build's (a four-square's 180 and 270 deg elements: common practice)."""
+
+
+def reversed_build(delays_s, freq_hz: float, velocity_factor: float) -> dict | None:
+    """The same phasing built with phase-reversing transformers (each giving its element 180 deg) and short lines
+    (snrgain.decide.tolerance.reversed_lines_s): ``reversed`` per element, ``delays_ns`` and ``phasing_lengths_m``
+    of the lines; None where it does not shorten the longest line to REVERSED_SHORTER of the plain build's."""
+    from snrgain.decide.tolerance import reversed_lines_s
+
+    d = np.asarray(delays_s, dtype=float)
+    if d.size < 2 or not d.max() > 0:
+        return None
+    lines = reversed_lines_s(d, freq_hz)
+    if lines.max() > REVERSED_SHORTER * d.max():
+        return None
+    half = 0.5 / freq_hz
+    shift = np.mod(d[0] - lines[0], half)  # the common start the short lines are counted from
+    turns = np.rint((d - lines - shift) / half).astype(int) % 2 == 1  # the half periods left of each: 180 deg
+    if turns.sum() > turns.size / 2:  # reversing every element changes nothing: the fewer transformers
+        turns = ~turns
+    return {
+        "reversed": [bool(t) for t in turns],
+        "delays_ns": [float(t * 1e9) for t in lines],
+        "phasing_lengths_m": [coax_length_m(t, velocity_factor) for t in lines],
+    }
 
 
 LINE_TOLERANCE_NS = 0.5

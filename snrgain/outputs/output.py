@@ -297,11 +297,14 @@ def also_build(r: Results, k: int) -> str:
 
 
 def switched_text(r: Results, name: str) -> str:
-    """For a switched antenna of the plan: " (one antenna switched to <the states that serve a target>)", else ""."""
+    """For a switched antenna of the plan: " (one antenna switched to <the states that serve a target>)", or that
+    only one of its states serves (it may be built one way), else ""."""
     states = getattr(r.plan, "states", {}).get(name)
     if not states:
         return ""
     labels = {c.name: c.state for c in r.candidates}
+    if len(states) == 1:  # one state serves every target it serves: the switching buys nothing here
+        return f" (only its {labels.get(states[0]) or states[0]} state serves a target: it may be built one way)"
     return f" (one antenna, switched to {', '.join(labels.get(s) or s for s in states)})"
 
 
@@ -422,7 +425,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(
                 f"height {length_both_text(b['height_m'], unit, 2 if unit == 'm' else 1, 1 if unit == 'm' else 2)}"
             )
-        if "bearing_deg" in b and b.get("family") == "small-loop":  # a figure-eight: its plane, both ways
+        if "bearing_deg" in b and b.get("both_ways"):  # a figure-eight: its plane, both ways
             bits.append(f"its plane along {b['bearing_deg'] % 180:.0f}-{b['bearing_deg'] % 180 + 180:.0f} deg")
         elif "bearing_deg" in b:
             bits.append(f"toward {b['bearing_deg']:.0f} deg")
@@ -490,6 +493,18 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             cable = f" of {name} (VF {vf:g})" if not any(given) else f" (the others of {name}, VF {vf:g})"
             cable = cable if None in given else ""
             bits.append(f"phasing delays{which}: {lines}{cable}")
+            short = b.get("reversed_build")
+            if short:
+                flipped = [str(i + 1) for i, t in enumerate(short["reversed"]) if t]
+                lines_r = ", ".join(
+                    f"{d:.0f} ns = {length_text(m, unit, 2 if unit == 'm' else 1)}"
+                    for d, m in zip(short["delays_ns"], short["phasing_lengths_m"])
+                )
+                which_r = f"element{'s' if len(flipped) > 1 else ''} {', '.join(flipped)}"
+                bits.append(
+                    f"or built short (common practice): a phase-reversing transformer at {which_r} and lines of "
+                    f"{lines_r}, element by element"
+                )
             amps = b.get("amplitudes") or []
             if amps and max(amps) - min(amps) > 1e-3:
                 bits.append("amplitudes " + ", ".join(f"{20 * np.log10(x):.1f} dB" if x > 0 else "off" for x in amps))
