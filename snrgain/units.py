@@ -234,7 +234,7 @@ def parse_attenuation_db_per_100m(value) -> float:
 
 
 _DBM = re.compile(r"^\s*([-+]?[0-9]+(?:\.[0-9]*)?|[-+]?\.[0-9]+)\s*dBm\s*$", re.IGNORECASE)
-_S_UNIT = re.compile(r"^\s*S\s*([0-9])(?:\s*\+\s*([0-9]+(?:\.[0-9]*)?)\s*(?:dB)?)?\s*$", re.IGNORECASE)
+_S_UNIT = re.compile(r"^\s*S\s*([0-9]+)(?:\s*\+\s*([0-9]+(?:\.[0-9]*)?)\s*(?:dB)?)?\s*$", re.IGNORECASE)
 _DB = re.compile(r"^\s*([-+]?[0-9]+(?:\.[0-9]*)?|[-+]?\.[0-9]+)\s*dB\s*$", re.IGNORECASE)
 
 
@@ -265,8 +265,8 @@ def _power_dbm(value) -> float:
         if m:
             units = int(m.group(1))
             over = float(m.group(2)) if m.group(2) else 0.0
-            if units < 1:
-                raise QuantityError(f"S-units run from S1 to S9 (then S9+N dB); got {toml_repr(value)}")
+            if not 1 <= units <= 9:
+                raise QuantityError(f"S-units run from S1 to S9, then S9+N dB ('S9+10'); got {toml_repr(value)}")
             if over and units != 9:
                 raise QuantityError(f"only S9 takes '+N dB'; got {toml_repr(value)}")
             return S9_DBM - DB_PER_S_UNIT * (9 - units) + over
@@ -368,6 +368,14 @@ def per_m(unit: str) -> float:
     if unit not in LENGTH_UNITS_SHOWN:
         raise ValueError(f"lengths are shown in one of {', '.join(LENGTH_UNITS_SHOWN)}; got {unit!r}")
     return FT_PER_M if unit == "ft" else 1.0
+
+
+def bearing_deg(rad: float) -> float:
+    """A direction in radians as degrees for output, rounded to 1e-9 deg: a bearing written in degrees comes back as
+    written (60, not 59.99999999999999, after the round trip through radians)."""
+    import math
+
+    return round(math.degrees(float(rad)), 9) + 0.0
 
 
 def number_text(value: float, fmt: str) -> str:

@@ -453,3 +453,39 @@ def test_a_yardstick_ranked_above_the_best_is_marked():
     out = io.StringIO()
     Console(width=140, file=out, force_terminal=False).print(target_table(r, 0))
     assert "iso (a yardstick, not to build)" in out.getvalue()
+
+
+def test_s10_and_hour_25_are_named_plainly():
+    """S10 is told the S-meter's range as S0 is (it got the generic power message); an hour of 25 is echoed as
+    written, not as 25.0."""
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import load
+    from snrgain.units import QuantityError, parse_power_dbm
+    from tests.conftest import MINIMAL
+
+    for bad in ("S10", "S0"):
+        with pytest.raises(QuantityError, match=r"S-units run from S1 to S9, then S9\+N dB"):
+            parse_power_dbm(bad)
+    assert parse_power_dbm("S9+10") == pytest.approx(-63.0)
+    import re
+
+    text = re.sub(r"utc_hours = \[[^\]]*\]", "utc_hours = [25]", MINIMAL, count=1)
+    with pytest.raises(ScenarioError, match=r"UTC hours must be in \[0, 24\); got \[25\]"):
+        load(text)
+
+
+def test_a_bearing_comes_back_as_written():
+    """A switched Beverage's states at 60 and 240 deg: 60 and 240 in the JSON, not 59.99999999999999."""
+    import json
+
+    import snrgain
+    from tests.conftest import MINIMAL
+
+    wire = (
+        '[[candidate]]\nname = "rev"\nfamily = "beverage"\nlength = "180 m"\nheight = "2.5 m"\n'
+        'directions = ["60 deg", "240 deg"]\n\n'
+    )
+    r = snrgain.evaluate(MINIMAL.replace("[[candidate]]", wire + "[[candidate]]", 1))
+    d = json.loads(json.dumps(r.to_dict()))
+    assert [d["build"][n]["bearing_deg"] for n in ("rev ENE (60 deg)", "rev WSW (240 deg)")] == [60.0, 240.0]
+    assert [d["build"][n]["switched"]["bearing_deg"] for n in ("rev ENE (60 deg)", "rev WSW (240 deg)")] == [60, 240]

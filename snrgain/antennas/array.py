@@ -57,7 +57,7 @@ from snrgain.antennas.geometry import direction_geometry
 from snrgain.fields import SI_CONTEXT, Bearing, Elevation, GroundField, PlanPoint, quantity
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.problems import toml_repr
-from snrgain.units import parse_quantity
+from snrgain.units import bearing_deg, parse_quantity
 
 WEIGHT_KEYS = ("delay", "delay_line", "phase", "amplitude")
 
@@ -512,7 +512,7 @@ class Array(Antenna):
             **super().describe(),
             "elements": len(self.elements),
             "element_family": self.elements[0].family,
-            "bearing_deg": float(np.degrees(p.bearing)),
+            "bearing_deg": bearing_deg(p.bearing),
             "steering": self.steering_label,
             "positions_m": [[float(x), float(y)] for x, y in self.positions],
         }

@@ -98,6 +98,7 @@ from snrgain.memo import Memo
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients, rod_resistance_ohm
 from snrgain.records import record
+from snrgain.units import bearing_deg
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
 
@@ -1022,7 +1023,7 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
             **super().describe(),
             "length_m": self.length_m,
             "height_m": self.wire_height_m(),
-            "bearing_deg": float(np.degrees(self.bearing_rad)),
+            "bearing_deg": bearing_deg(self.bearing_rad),
             "wire_radius_m": p.radius_m,
             "ground": "perfect" if self.ground is None else self.ground.name,
         }

@@ -37,6 +37,7 @@ from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
 from snrgain.physics.quadrature import gauss_legendre
+from snrgain.units import bearing_deg
 
 
 class SmallLoopParams(WireSize, AntennaParams):
@@ -160,6 +161,6 @@ class SmallLoop(Antenna):
             "width_m": self.params.width,
             "loop_height_m": self.params.loop_height,
             "height_m": self.params.height,
-            "bearing_deg": float(np.degrees(self.params.bearing)),
+            "bearing_deg": bearing_deg(self.params.bearing),
             "turns": self.params.turns,
         }

@@ -85,6 +85,7 @@ from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
 from snrgain.physics.quadrature import gauss_legendre
+from snrgain.units import bearing_deg
 
 AUTO_TERMINATIONS_OHM = np.geomspace(100.0, 5000.0, 41)
 """Resistors tried by termination = "auto" [ohm]."""
@@ -600,6 +601,6 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
             "loop_height_m": p.loop_height,
             "height_m": p.height,
             "length_m": p.width,
-            "bearing_deg": float(np.degrees(p.bearing)),
+            "bearing_deg": bearing_deg(p.bearing),
             "ground": "perfect" if self.ground is None else self.ground.name,
         }

@@ -12,6 +12,7 @@ from snrgain.model.results import AntennaResult, Named, Notice, PatternCuts, Pre
 from snrgain.physics import chain as chainmod
 from snrgain.scenario import Scenario
 from snrgain.sky import noise as noisemod
+from snrgain.units import bearing_deg
 
 LOBE_ELEVATION_DEG = 15.0
 """Elevation at which an array's main lobe is compared with its bearing [deg] (a typical low-band arrival)."""
@@ -386,7 +387,7 @@ def _local_source_dicts(sc: Scenario) -> list[dict]:
     return [
         {
             "name": s.name,
-            "bearing_deg": float(np.degrees(s.bearing_rad)),
+            "bearing_deg": bearing_deg(s.bearing_rad),
             "elevation_deg": float(np.degrees(s.elevation_rad)),
             "spread_deg": float(np.degrees(s.spread_rad)),
         }
@@ -402,7 +403,7 @@ def _target_dict(t, w, times) -> dict:
     return {
         "name": t.name,
         "weight": float(w),
-        "bearing_deg": float(np.degrees(t.bearing_rad)),
+        "bearing_deg": bearing_deg(t.bearing_rad),
         "elevation_min_deg": float(np.degrees(t.elevation_rad.min())),
         "elevation_max_deg": float(np.degrees(t.elevation_rad.max())),
         "distance_km": None if t.distance_m is None else t.distance_m / 1e3,

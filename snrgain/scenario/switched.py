@@ -23,6 +23,7 @@ from snrgain.antennas.base import pydantic_problems
 from snrgain.fields import Bearing
 from snrgain.problems import toml_repr
 from snrgain.records import record
+from snrgain.units import bearing_deg
 
 CANDIDATE_KEYS = ("directions",)
 """Keys a candidate table may hold besides its family's, ``place`` and ``chain`` (taken out before the family
@@ -261,7 +262,7 @@ def expand_directions(spec: dict, where: str) -> tuple[list[tuple[dict, dict]], 
                 )
             ]
         how = "turned" if swapped else "port" if "port" in family.params.model_fields else "ends"
-    degs = [float(np.degrees(b)) % 360.0 for b in bearings]
+    degs = [bearing_deg(b) % 360.0 for b in bearings]
     labels = tuple(state_label(d) if n is None else named_label(n, d) for n, d in zip(state_names, degs))
     group = spec.get("name")
     problem = _name_room(group, labels, where)

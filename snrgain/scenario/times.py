@@ -28,7 +28,7 @@ def check_hours(v):
         return v
     bad = [h for h in v if not 0 <= h < 24]
     if bad:
-        raise ValueError(f"UTC hours must be in [0, 24); got {bad}")
+        raise ValueError(f"UTC hours must be in [0, 24); got {[int(h) if float(h).is_integer() else h for h in bad]}")
     if len(set(v)) != len(v):
         raise ValueError(f"hours are listed twice: {v}")
     return v
