@@ -74,6 +74,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
     out.extend(phasing_tolerance_notices(sc))
+    from snrgain.decide.given_phasing import given_phasing_notices
+
+    out.extend(given_phasing_notices(sc))
     from snrgain.decide.source_place import source_position_notices
 
     out.extend(source_position_notices(sc, antennas, skies))

@@ -227,6 +227,7 @@ def phasing_tolerance_notices(sc) -> list[Notice]:
 
 
 __all__ = [
+    "FRONT_TO_BACK_CAP_DB",
     "asks_for_precision",
     "figures",
     "front_of",

@@ -60,6 +60,15 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
             f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
         )
+    if n.code == "given-phasing-short":
+        lags = ", ".join(f"{x:g}" for x in v["best_lags_deg"])
+        return (
+            f"{n.antenna}: its given phasing gives an RDF of {v['rdf_db']:.1f} dB toward {v['bearing_deg']:.0f} deg "
+            f"(front-to-back {v['front_to_back_db']:.0f} dB); the same array phased for RDF there gives "
+            f"{v['rdf_best_db']:.1f} dB (front-to-back {v['front_to_back_best_db']:.0f} dB), with phase lags of "
+            f"{lags} deg element by element: check the phasing (a close pair wants nearly 180 deg less its "
+            "spacing in degrees, common practice), or write steering = 'auto'"
+        )
     if n.code == "reference-not-set-under-noise":
         return (
             f"{n.antenna} (the reference): its {v['what']} is set for the best RDF toward its bearing, not for the "
