@@ -31,6 +31,21 @@ def main_lobe_deg(antenna, freq_hz: float) -> float | None:
     return float(np.degrees(main_lobe_rad(np.radians(az), g, float(antenna.params.bearing))))
 
 
+LOBE_AWAY_DEG = 90.0
+"""An array whose main lobe lies more than this from its bearing is said to point away (a sign to check)."""
+
+
+def lobe_away(antenna, freq_hz: float) -> dict | None:
+    """{bearing_deg, lobe_deg, off_deg} of an array whose main lobe (:func:`main_lobe_deg`) lies more than
+    LOBE_AWAY_DEG from its bearing: the ``lobe-away-from-bearing`` notice's values; None otherwise."""
+    lobe = main_lobe_deg(antenna, freq_hz)
+    if lobe is None:
+        return None
+    bearing = float(np.degrees(antenna.params.bearing)) % 360.0
+    off = abs((lobe - bearing + 180.0) % 360.0 - 180.0)
+    return {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off} if off > LOBE_AWAY_DEG else None
+
+
 def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) -> list[Notice]:
     """What the user should know about the results, as codes and numbers (``plan``: the station plan, whose
     switched antennas' states a notice on one of them prefers; ``skies``: the noise sky, with which a phasing unit
@@ -53,16 +68,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
                 )
             )
     for ant in sc.candidates:
-        lobe = main_lobe_deg(ant, sc.freq_hz)
-        if lobe is not None:
-            bearing = float(np.degrees(ant.params.bearing)) % 360.0
-            off = abs((lobe - bearing + 180.0) % 360.0 - 180.0)
-            if off > 90.0:
-                out.append(
-                    Notice(
-                        "lobe-away-from-bearing", ant.name, {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off}
-                    )
-                )
+        away = lobe_away(ant, sc.freq_hz)
+        if away is not None:
+            out.append(Notice("lobe-away-from-bearing", ant.name, away))
         far = getattr(ant, "far_rod_ohm", None)
         auto = getattr(ant.params, "termination", "auto") == "auto" or getattr(ant, "sky_termination", None)
         if far and getattr(ant, "terminated", False) and auto:  # "auto", or chosen under the sky (steering)

@@ -6,8 +6,8 @@ same array's phases set for the best RDF toward its bearing at its aiming elevat
 its amplitudes kept: snrgain.antennas.array.Array.steer) are worked, and where they give RDF_SHORT_DB or more RDF
 than the phasing given, the notice gives both, with the phases that do it, so the builder can check the phasing
 before cutting lines.  The figures are read toward the bearing, beside the site's scatterers as the array stands
-(snrgain.decide.tolerance.figures).  An array whose main lobe points more than 90 deg from its bearing is left to the
-lobe-away warning (a sign to check, not a phasing to tune).
+(snrgain.decide.tolerance.figures).  An array the lobe-away warning names (snrgain.decide.decisions.lobe_away) is
+left to it (a sign to check, not a phasing to tune).
 """
 
 from __future__ import annotations
@@ -25,6 +25,7 @@ def given_phasing_notices(sc) -> list[Notice]:
     RDF_SHORT_DB or more under the same array's phased for RDF; values rdf_db, rdf_best_db, front_to_back_db,
     front_to_back_best_db, bearing_deg, best_lags_deg (each element's phase lag, the first at 0)."""
     from snrgain.antennas.array import shortest_lags
+    from snrgain.decide.decisions import lobe_away
     from snrgain.decide.tolerance import FRONT_TO_BACK_CAP_DB, figures
     from snrgain.model.scatter import bare
 
@@ -34,10 +35,9 @@ def given_phasing_notices(sc) -> list[Notice]:
         own = bare(ant)
         if own.composite or getattr(own.params, "steering", None) != "given" or len(getattr(own, "elements", ())) < 2:
             continue
-        front = (float(own.params.bearing), float(own.params.auto_elevation))
-        lobe = own.front(f)[0]
-        if abs((lobe - front[0] + np.pi) % (2 * np.pi) - np.pi) > np.pi / 2:
+        if lobe_away(ant, f) is not None:
             continue  # beamed the other way: the lobe-away warning says to check the sign
+        front = (float(own.params.bearing), float(own.params.auto_elevation))
         trial = own.copy()
         trial.steer(f)  # its phases for the best RDF there (the array's auto_for "rdf"), its amplitudes kept
         best = trial.weights_at(f)

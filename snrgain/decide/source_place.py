@@ -66,6 +66,15 @@ def moves(sc, antennas: list, src, step_m: float = DISPLACEMENT_M) -> list[tuple
     return out
 
 
+def reading_index(src, antennas: list) -> int | None:
+    """The index among ``antennas`` of the antenna a source's level was read on (``read_on``; the reference, 0,
+    where that antenna is not among them); None for a source given as an Fa."""
+    if src.level_dbm is None:
+        return None
+    names = [a.name for a in antennas]
+    return names.index(src.read_on) if src.read_on in names else 0
+
+
 def noise_shifts_db(sc, antennas: list, results: list, src, step_m: float = DISPLACEMENT_M) -> np.ndarray:
     """The change of each antenna's noise [dB] (at the receiver input, its chain's floor counted) with ``src``
     moved ``step_m`` along each of DIRECTIONS: shape (directions, antennas); NaN for a move :func:`moves` leaves
@@ -74,8 +83,7 @@ def noise_shifts_db(sc, antennas: list, results: list, src, step_m: float = DISP
     shares carry it)."""
     from snrgain.model.placed import pickup
 
-    names = [a.name for a in antennas]
-    anchor = (names.index(src.read_on) if src.read_on in names else 0) if src.level_dbm is not None else None
+    anchor = reading_index(src, antennas)
     base, _ = pickup(_with_source(sc, src), antennas)
     share = np.array([source_shares(r, src.name) or 0.0 for r in results])
     out = np.full((len(DIRECTIONS), len(antennas)), np.nan)
@@ -106,8 +114,7 @@ def resetting_snr_db(sc, skies, antennas: list, src, step_m: float = DISPLACEMEN
     if skies is None or skies.maps is None or not units:
         return out
     taken = moves(sc, antennas, src, step_m)
-    names = [a.name for a in antennas]
-    anchor = names.index(src.read_on) if src.level_dbm is not None and src.read_on in names[1:] else None
+    anchor = reading_index(src, antennas) or None  # read on the reference (0): the forms keep it as they are
     if anchor is not None:  # the reference's pickup against the reading's antenna, at the written place and moved
         pair = [antennas[0], antennas[anchor]]
         s0 = pickup(_with_source(sc, src), pair)[0][src.name]
@@ -223,6 +230,7 @@ def _gain_values(gain, result, src) -> dict:
 __all__ = [
     "moves",
     "noise_shifts_db",
+    "reading_index",
     "resetting_snr_db",
     "severity",
     "shifts_db",
