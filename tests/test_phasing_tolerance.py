@@ -261,3 +261,36 @@ def test_a_switched_array_shows_a_state_the_plan_builds(tmp_path):
     said = next(n for n in r.notices if n.code == "phasing-tolerance")
     used = r.plan.states.get("small square", [])
     assert used and f"small square {said.values['shown_state']}" in used
+
+
+def test_the_warning_and_the_build_sheet_offer_transformers_alike():
+    """Where the phasing-tolerance warning works the build with phase-reversing transformers, the build sheet spells
+    it out, and where the sheet does not, the warning does not offer it (one test, tolerance.shortened_lines_s):
+    four verticals in a line lagging 0, 60, 120 and 190 deg shorten their longest line only to 120 of 190 deg (0.63
+    of it: neither; the warning offered it before), a four-square's 0, 90, 90 and 180 deg to half of it (both)."""
+    from snrgain.decide.build import build_sheet
+
+    def line(phases, positions):
+        return from_spec(
+            {
+                "family": "phased-verticals",
+                "positions": positions,
+                "height": "6 m",
+                "ground": "moist loam",
+                "steering": "given",
+                "phases": phases,
+                "phase_sense": "lag",
+            }
+        )
+
+    four = line([0, 60, 120, 190], [[0, 0], [0, 20], [0, 40], [0, 60]])
+    square = line([0, 90, 90, 180], [[0, 0], [20, 0], [0, 20], [20, 20]])
+    for ant, offered in ((four, False), (square, True)):
+        delays = ant.effective_delays_s(F)
+        short = tol.shortened_lines_s(delays, F)
+        assert (short is not None) is offered
+        assert (tol.tolerance(ant, F)["reversed"] is not None) is offered
+        assert ("reversed_build" in build_sheet(ant, F)) is offered
+    assert np.max(tol.reversed_lines_s(four.effective_delays_s(F), F)) / np.max(four.effective_delays_s(F)) == (
+        pytest.approx(120 / 190)
+    )

@@ -148,22 +148,16 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
     return out
 
 
-REVERSED_SHORTER = 0.5
-"""The build with phase-reversing transformers is given where its longest line is at most this fraction of the
-plain build's (a four-square's 180 and 270 deg elements: common practice)."""
-
-
 def reversed_build(delays_s, freq_hz: float, velocity_factor: float) -> dict | None:
     """The same phasing built with phase-reversing transformers (each giving its element 180 deg) and short lines
     (snrgain.decide.tolerance.reversed_lines_s): ``reversed`` per element, ``delays_ns`` and ``phasing_lengths_m``
-    of the lines; None where it does not shorten the longest line to REVERSED_SHORTER of the plain build's."""
-    from snrgain.decide.tolerance import reversed_lines_s
+    of the lines; None where it does not shorten the longest line to tolerance.SHORTER of the plain build's (the
+    phasing-tolerance warning's own test, :func:`snrgain.decide.tolerance.shortened_lines_s`)."""
+    from snrgain.decide.tolerance import shortened_lines_s
 
     d = np.asarray(delays_s, dtype=float)
-    if d.size < 2 or not d.max() > 0:
-        return None
-    lines = reversed_lines_s(d, freq_hz)
-    if lines.max() > REVERSED_SHORTER * d.max():
+    lines = shortened_lines_s(d, freq_hz)
+    if lines is None:
         return None
     half = 0.5 / freq_hz
     shift = np.mod(d[0] - lines[0], half)  # the common start the short lines are counted from

@@ -51,8 +51,10 @@ FRONT_TO_BACK_LOSS_DB = 6.0
 FRONT_TO_BACK_KEPT_DB = 15.0
 FRONT_TO_BACK_CAP_DB = 40.0
 QUANTILES = (0.1, 0.5, 0.9)
-SHORTER = 0.75
-"""Phase-reversing transformers are offered where they bring the longest line under this share of its length."""
+SHORTER = 0.5
+"""Phase-reversing transformers are offered, by the phasing-tolerance warning and on the build sheet alike
+(:func:`shortened_lines_s`), where they bring the longest line to at most this share of its length (a four-square's
+180 and 270 deg elements: common practice)."""
 
 
 def line_errors_s(delays_s: np.ndarray, draws: int = DRAWS, seed: int = 0) -> np.ndarray:
@@ -112,6 +114,16 @@ def reversed_lines_s(delays_s, freq_hz: float) -> np.ndarray:
     return np.where(out > half - 1e-15, 0.0, out)  # rounding at the wrap
 
 
+def shortened_lines_s(delays_s, freq_hz: float) -> np.ndarray | None:
+    """:func:`reversed_lines_s` where they bring the longest line to at most SHORTER of the plain build's; None
+    where they do not (or there is nothing to shorten): the one test of whether transformers are offered."""
+    d = np.asarray(delays_s, dtype=float)
+    if d.size < 2 or not d.max() > 0:
+        return None
+    lines = reversed_lines_s(d, freq_hz)
+    return lines if lines.max() <= SHORTER * d.max() * (1 + 1e-12) else None
+
+
 def _drawn(antenna, freq_hz: float, delays_s, front) -> tuple[np.ndarray, np.ndarray]:
     """The 10, 50 and 90 % points of RDF and of front-to-back (capped) over the draws of errors of lines of
     ``delays_s``, every draw at once (:func:`_figures_of_weights`)."""
@@ -152,8 +164,8 @@ def _sigma_s(longest_s: float) -> float:
 def tolerance(antenna, freq_hz: float) -> dict | None:
     """The array's RDF and front-to-back as steered and their 10, 50 and 90 % points over the draws of
     :func:`line_errors_s` on its lines as the build sheet gives them (the longest line's delay and its 1-sigma
-    error too), and where phase-reversing transformers bring the longest line under SHORTER of its length, the same
-    with them (``reversed``: :func:`reversed_lines_s`); None for an antenna without phasing lines (not an array of
+    error too), and where phase-reversing transformers bring the longest line to SHORTER of its length, the same
+    with them (``reversed``: :func:`shortened_lines_s`); None for an antenna without phasing lines (not an array of
     at least two elements fed through delays)."""
     if getattr(antenna, "composite", False) or not hasattr(antenna, "effective_delays_s"):
         return None
@@ -178,8 +190,8 @@ def tolerance(antenna, freq_hz: float) -> dict | None:
         "draws": DRAWS,
         "reversed": None,
     }
-    short = reversed_lines_s(delays, freq_hz)
-    if float(np.max(short)) < SHORTER * float(np.max(delays)):
+    short = shortened_lines_s(delays, freq_hz)
+    if short is not None:
         rdf_r, fb_r = _drawn(antenna, freq_hz, short, front)
         out["reversed"] = {
             "longest_delay_ns": float(np.max(short)) * 1e9,
