@@ -260,6 +260,10 @@ def _sine_harmonics(x: np.ndarray, count: int) -> np.ndarray:
     return out
 
 
+MATMUL_PLACES = 256
+"""From this many places :func:`fam_1mhz` sums over k by a matrix product (BLAS), below by einsum."""
+
+
 def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
     """Median atmospheric noise at 1 MHz, Fam1 [dB above kT0b], steps 1-2 (vectorised).
 
@@ -286,7 +290,8 @@ def fam_1mhz(c: AtmosphericCoefficients, lat_rad, lon_rad, block) -> np.ndarray:
         need = np.unique(idx, return_counts=True)[0] if idx.size < lat.size else np.arange(lat.size)
         whole = need.size == lat.size
         sk, sj, pp = (sin_k, sin_j, p) if whole else (sin_k[need], sin_j[need], p[need])
-        z = np.einsum("nk,kj->nj", sk, c.fakp[blk, :15, :]) + c.fakp[blk, 15, :]  # (n, 29)
+        fk = c.fakp[blk, :15, :]
+        z = (sk @ fk if sk.shape[0] >= MATMUL_PLACES else np.einsum("nk,kj->nj", sk, fk)) + c.fakp[blk, 15, :]
         value = np.einsum("nj,nj->n", z, sj) + c.fakabp[blk, 0] + c.fakabp[blk, 1] * pp
         out[sel] = value[idx] if whole else value[np.searchsorted(need, idx)]
     return out

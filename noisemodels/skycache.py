@@ -135,8 +135,24 @@ def store(kind: str, key: dict, arr: np.ndarray) -> None:
     if not enabled():
         return
     where = folder()
-    if _write(where, key_name(kind, key), arr):
-        trim(where)
+    arr = np.asarray(arr)
+    if not _write(where, key_name(kind, key), arr):
+        return
+    known = _held_bytes.get(where)
+    written = arr.nbytes + NPY_HEADER_BYTES
+    if known is None or known + written > max_bytes():
+        _held_bytes[where] = trim(where)
+    else:
+        _held_bytes[where] = known + written
+
+
+NPY_HEADER_BYTES = 128
+"""An .npy file's header (numpy writes it padded to a multiple of 64 bytes; 128 for the arrays kept here)."""
+_held_bytes: dict[Path, float] = {}
+"""Per folder, its size at this process's last walk (:func:`trim`) plus what :func:`store` wrote since: the folder is
+walked again only when that passes the bound (the first store of a process walks it), not at every store (a run
+writing 56 hours' maps walked the folder 56 times: 25 ms of a cold run).  Entries other processes write meanwhile
+are found by their own first store and by this process's next walk."""
 
 
 SMALL_WRITES = 64
@@ -205,8 +221,9 @@ def _write(where: Path, name: str, arr) -> bool:
     return True
 
 
-def trim(where: Path | None = None) -> None:
-    """Remove the least recently used entries until the folder holds no more than the size bound."""
+def trim(where: Path | None = None) -> float:
+    """Remove the least recently used entries until the folder holds no more than the size bound; the bytes it then
+    holds."""
     import time
 
     where = folder() if where is None else where
@@ -228,6 +245,7 @@ def trim(where: Path | None = None) -> None:
             break
         _remove(p)
         total -= size
+    return float(total)
 
 
 def _remove(path: Path) -> None:

@@ -413,11 +413,35 @@ def _deposit_weights(key: tuple, nside: int):
     az_sub = geom.sub_azimuth_rad()
     el_sub = np.broadcast_to(geom.sub_elevation_rad[..., None], az_sub.shape)
     pix, w = interpolation_weights(nside, *to_healpy_angles(az_sub.ravel(), el_sub.ravel()))
-    ncell = geom.bearing_deg.size
     per_cell = SUB_DISTANCE * SUB_BEARING
-    cell = np.broadcast_to(np.arange(az_sub.size) // per_cell, pix.shape)
-    pair, weight = _summed_by_key(pix.astype(np.int64).ravel() * ncell + cell.ravel(), w.ravel() / per_cell)
-    return pair // ncell, pair % ncell, weight, 12 * nside * nside
+    # the sub-samples come cell by cell: each cell's 4 x per_cell (pixel, weight) pairs are one row, summed per
+    # pixel within it (a sort of short rows, not of every pair at once: 2x faster)
+    ncell = geom.bearing_deg.size
+    pixel, cell, weight = _summed_per_row(pix.T.reshape(ncell, -1), (w.T / per_cell).reshape(ncell, -1))
+    return pixel, cell, weight, 12 * nside * nside
+
+
+def _summed_per_row(keys: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Each row's distinct non-negative integer ``keys`` (ascending within the row) and the sum of the ``weights`` of
+    each, flat: (key, row, weight).  Keys and their places in the row are packed into one integer and the rows sorted
+    (as :func:`_summed_by_key` does for one long run)."""
+    keys = np.asarray(keys, dtype=np.int64)
+    rows, width = keys.shape
+    shift = max(int(width - 1).bit_length(), 1)
+    if keys.size == 0 or int(keys.max()).bit_length() + shift > 62:
+        each = [_summed_by_key(k, w) for k, w in zip(keys, np.asarray(weights, dtype=float))]  # row by row
+        return (
+            np.concatenate([k for k, _ in each] or [np.zeros(0, dtype=np.int64)]),
+            np.concatenate([np.full(k.size, r) for r, (k, _) in enumerate(each)] or [np.zeros(0, dtype=np.int64)]),
+            np.concatenate([w for _, w in each] or [np.zeros(0)]),
+        )
+    packed = np.sort((keys << shift) | np.arange(width, dtype=np.int64), axis=1)
+    ordered = np.take_along_axis(np.asarray(weights, dtype=float), packed & ((1 << shift) - 1), axis=1)
+    packed >>= shift
+    first = np.ones(packed.shape, dtype=bool)
+    first[:, 1:] = packed[:, 1:] != packed[:, :-1]
+    start = np.flatnonzero(first)
+    return packed.ravel()[start], start // width, np.add.reduceat(ordered.ravel(), start)
 
 
 def _summed_by_key(keys: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -298,6 +298,25 @@ def test_size_bound_removes_the_least_recently_used(cache_dir, monkeypatch):
     assert skycache.load("test", {"i": 1}) is None
 
 
+def test_stores_keep_the_bound_walking_the_folder_only_when_it_may_pass(cache_dir, monkeypatch):
+    """A run writing many maps walks the cache folder once at its first store and again only when what it wrote since
+    may pass the size bound (skycache._held_bytes); the folder stays within the bound after every store."""
+    from noisemodels import skycache
+
+    monkeypatch.setenv(skycache.ENV_MAX_MB, "0.03")  # room for five entries of 640 pixels (5.2 kB each)
+    walks = []
+    real = skycache.trim
+    monkeypatch.setattr(skycache, "trim", lambda where=None: walks.append(1) or real(where))
+    arr = np.zeros(640)
+    for i in range(20):
+        skycache.store("test", {"i": i}, arr + i)
+        assert sum(p.stat().st_size for p in cache_dir.glob("*.npy")) <= 30_000
+    assert 1 < len(walks) < 20
+    assert (cache_dir / skycache.key_name("test", {"i": 19})).exists()
+    held = sum(p.stat().st_size for p in cache_dir.glob("*.npy"))
+    assert held == skycache._held_bytes[cache_dir] == real(cache_dir)
+
+
 @pytest.mark.parametrize("nside", [1, 4, 32, 1024])
 def test_direction_to_pixel_is_healpys_ang2pix(nside):
     # The numpy RING-scheme lookup against healpy's ang2pix, poles and horizon included; the upper hemisphere's

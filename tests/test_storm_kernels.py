@@ -86,6 +86,22 @@ def test_summed_by_key_is_unique_and_bincount():
         np.testing.assert_allclose(weight, np.bincount(inverse.ravel(), weights=w), rtol=1e-12)
 
 
+def test_summed_per_row_is_each_rows_unique_and_bincount():
+    """storms._summed_per_row against numpy's unique and bincount row by row: short rows of pixels (the storm
+    deposit's), one row, and keys too wide to pack (the one-run fallback)."""
+    rng = np.random.default_rng(9)
+    for rows, width, top in ((300, 64, 12_288), (1, 7, 3), (40, 16, 2**60)):
+        keys = rng.integers(0, top, (rows, width))
+        w = rng.uniform(0.0, 1.0, (rows, width))
+        key, row, weight = storms._summed_per_row(keys, w)
+        for r in range(rows):
+            want, inverse = np.unique(keys[r], return_inverse=True)
+            mine = row == r
+            np.testing.assert_array_equal(key[mine], want)
+            np.testing.assert_allclose(weight[mine], np.bincount(inverse.ravel(), weights=w[r]), rtol=1e-12)
+        assert np.all(np.diff(row) >= 0)
+
+
 @needs_p372
 def test_cell_power_at_night_and_by_day_equals_the_law_evaluated_everywhere():
     geom = storms._geometry(43.15, -89.6, 250e3, 3.0, 100e3, 12_000e3)
