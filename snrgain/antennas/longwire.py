@@ -645,6 +645,9 @@ resistor."""
 class LongWire(SkyTermination, TransformerFeed, Antenna):
     """Shared machinery of the long-wire families: a line at a height, loads at both ends, down-leads."""
 
+    matched_words = "|Z0| less the far ground"
+    """What the resistor that matches the line is, in words (the build sheet, the warnings)."""
+
     placeable = True
     long_wire = True
     integrates_near_sources = True

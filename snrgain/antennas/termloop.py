@@ -354,6 +354,9 @@ def _plane_wave_voltages(freq_hz: float, pts, dirs, currents, azimuth_rad, eleva
 class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
     """See the module docstring."""
 
+    matched_words = "the loop's |Z0|"
+    """What the resistor that matches the loop's line is, in words (a loop has no far ground)."""
+
     placeable = True
     auto_terminations_ohm = AUTO_TERMINATIONS_OHM
 

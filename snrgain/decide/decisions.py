@@ -230,40 +230,63 @@ def trades_front_to_back(over_matched_db: float, given_up_db: float) -> bool:
 
 
 def fragile_termination_notices(sc: Scenario) -> list[Notice]:
-    """``termination-fragile`` (termination_ohm, matched_ohm, over_matched_db, front_to_back_db,
-    front_to_back_matched_db) for each candidate whose resistor, chosen for SNR gain under the site's noise
-    (termination = "auto", auto_for = "snr"), beats |Z0| by less than FRAGILE_OVER_DB while its front-to-back toward
-    the bearing lies FRAGILE_FRONT_TO_BACK_DB per dB gained (at least FRAGILE_FRONT_TO_BACK_FLOOR_DB) below |Z0|'s:
-    a null placed on the noise as modelled (a
-    source's bearing and level, the storms' directions), which a real site may not hold to."""
+    """``termination-fragile`` (termination_ohm, safer_ohm, safer: "matched" or "rdf", safer_words, over_safer_db,
+    front_to_back_db, front_to_back_safer_db) for each candidate whose resistor, chosen for SNR gain under the site's
+    noise (termination = "auto", auto_for = "snr"), beats a resistor that rests on the antenna alone by less than
+    FRAGILE_OVER_DB while its front-to-back toward the bearing lies FRAGILE_FRONT_TO_BACK_DB per dB gained (at least
+    FRAGILE_FRONT_TO_BACK_FLOOR_DB) below that one's: a null placed on the noise as modelled (a source's bearing and
+    level, the storms' directions), which a real site may not hold to.  The resistors weighed: the matched one (a
+    wire's |Z0| less the far ground, a loop's |Z0|) and the one of best RDF (a uniform sky's); of those the warning
+    holds for, the one of higher front-to-back is named (a short Beverage's best RDF at 215 ohm kept 17 dB where its
+    514 ohm |Z0| kept 6 dB)."""
     from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
-    from snrgain.tools.wiredesign import termination_answer
+    from snrgain.tools.wiredesign import sky_figure_db, termination_answer
 
     out = []
     for ant in sc.candidates:
-        if getattr(ant, "sky_termination", None) is None:
+        sky = getattr(ant, "sky_termination", None)
+        if sky is None:
             continue
         ans = termination_answer(ant, sc.freq_hz)
-        if ans is None or ans.over_matched_db >= FRAGILE_OVER_DB:
+        if ans is None:
             continue
         bearing = getattr(ant, "bearing_rad", getattr(ant.params, "bearing", 0.0))
         elevation = getattr(ant.params, "auto_elevation", AUTO_ELEVATION_RAD)
         fb = termination_figure(ant.termination_pattern(sc.freq_hz), bearing, elevation, "front_to_back")
-        at_best, at_matched = (float(10 * np.log10(max(fb(r), 1e-30))) for r in (ans.best_ohm, ans.matched_ohm))
-        if trades_front_to_back(ans.over_matched_db, at_matched - at_best):
-            out.append(
-                Notice(
-                    "termination-fragile",
-                    ant.name,
-                    {
-                        "termination_ohm": ans.best_ohm,
-                        "matched_ohm": ans.matched_ohm,
-                        "over_matched_db": ans.over_matched_db,
-                        "front_to_back_db": at_best,
-                        "front_to_back_matched_db": at_matched,
-                    },
-                )
+
+        def fb_db(r, fb=fb):
+            return float(10 * np.log10(max(fb(max(r, 1e-3)), 1e-30)))
+
+        at_best = fb_db(ans.best_ohm)
+        rdf = termination_answer(ant, sc.freq_hz, "rdf")
+        weighed = [("matched", ans.matched_ohm, ans.over_matched_db, ans.matched_words)]
+        if rdf is not None and abs(np.log(rdf.best_ohm / max(ans.matched_ohm, 1e-3))) > 0.05:
+            weighed.append(
+                ("rdf", rdf.best_ohm, ans.best_db - sky_figure_db(sky, rdf.best_ohm), "the resistor of best RDF")
             )
+        said = [
+            (fb_db(ohm), which, ohm, over, words)
+            for which, ohm, over, words in weighed
+            if trades_front_to_back(over, fb_db(ohm) - at_best)
+        ]
+        if not said:
+            continue
+        safer_fb, which, ohm, over, words = max(said)
+        out.append(
+            Notice(
+                "termination-fragile",
+                ant.name,
+                {
+                    "termination_ohm": ans.best_ohm,
+                    "safer_ohm": float(ohm),
+                    "safer": which,
+                    "safer_words": words,
+                    "over_safer_db": float(over),
+                    "front_to_back_db": at_best,
+                    "front_to_back_safer_db": safer_fb,
+                },
+            )
+        )
     return out
 
 

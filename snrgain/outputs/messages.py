@@ -144,14 +144,14 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "sequenced so it switches before the transmitter keys, is common practice; follow the equipment's ratings)"
         )
     if n.code == "termination-fragile":
+        safer = f"{v['safer_ohm']:.0f} ohm"
+        how = f'(termination = "{safer}")' if v["safer"] == "matched" else '(auto_for = "rdf")'
         return (
-            f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats |Z0| less the far "
-            f"ground ({v['matched_ohm']:.0f} ohm) by only {v['over_matched_db']:.2f} dB, yet gives a front-to-back "
-            f"of {v['front_to_back_db']:.1f} dB against {v['front_to_back_matched_db']:.1f} dB at "
-            f"{v['matched_ohm']:.0f} ohm: what it adds rests on the noise as modelled (its sources' bearings and "
-            "levels, the storms' directions), the rear null it gives up does not; unless you trust that model, the "
-            "matched resistor is the safer build "
-            '(termination in ohms, or auto_for = "z0")'
+            f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats {v['safer_words']} "
+            f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of {v['front_to_back_db']:.1f} "
+            f"dB against {v['front_to_back_safer_db']:.1f} dB at {safer}: what it adds rests on the noise as modelled "
+            "(its sources' bearings and levels, the storms' directions), the rear null it gives up does not; unless "
+            f"you trust that model, {safer} is the safer build {how}"
         )
     if n.code == "phasing-tolerance":
         from snrgain.decide import tolerance

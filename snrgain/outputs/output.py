@@ -459,7 +459,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 bits.append(
                     f"{'you gave it; ' if b.get('termination_given') else ''}{best}"
                     f"{', ' if bound is None else '; it gives '}{ans['over_matched_db']:.2f} dB over the "
-                    f"{ans['matched_ohm']:.0f} ohm of |Z0| less the far ground; {flat}; resistor {ans['caution_short']}"
+                    f"{ans['matched_ohm']:.0f} ohm of {ans['matched_words']}; {flat}; resistor {ans['caution_short']}"
                 )
             if b.get("end_to_end_loss_db", 0.0) > 20.0:
                 bits.append(

@@ -191,6 +191,8 @@ class TerminationAnswer:
     the range: that end of the range, not an optimum (longwire.search_bound); None for an optimum."""
     search_ohm: tuple[float, float] | None = None
     """The range of resistors searched [ohm] (None for "z0", which is not searched)."""
+    matched_words: str = "|Z0|"
+    """What ``matched_ohm`` is, in words: the antenna's own (a wire's |Z0| less the far ground, a loop's |Z0|)."""
 
     def to_dict(self) -> dict:
         return {
@@ -208,6 +210,7 @@ class TerminationAnswer:
             "target": self.target,
             "at_search_bound": self.at_bound,
             "search_ohm": None if self.search_ohm is None else list(self.search_ohm),
+            "matched_words": self.matched_words,
         }
 
 
@@ -253,6 +256,7 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         at_best - db(1.4 * best),
         at_bound=None if searched is None else search_bound(best, searched),
         search_ohm=None if searched is None else (float(np.min(searched)), float(np.max(searched))),
+        matched_words=getattr(antenna, "matched_words", "|Z0|"),
     )
 
 
@@ -281,13 +285,12 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
     from snrgain.antennas.longwire import search_bound
     from snrgain.decide.build import nearest_standard_ohm
 
-    rs, fig = np.log(sky["values_ohm"]), np.asarray(sky["figure_db"])
     best = float(antenna.params.termination)
 
     def db(r):
-        return float(np.interp(np.log(r), rs, fig))
+        return sky_figure_db(sky, r)
 
-    top, standard = float(np.max(fig)), nearest_standard_ohm(best)
+    top, standard = float(np.max(sky["figure_db"])), nearest_standard_ohm(best)
     return TerminationAnswer(
         "snr",
         best,
@@ -301,7 +304,14 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         sky["target"],
         at_bound=search_bound(best, sky["values_ohm"]),
         search_ohm=(float(min(sky["values_ohm"])), float(max(sky["values_ohm"]))),
+        matched_words=getattr(antenna, "matched_words", "|Z0|"),
     )
+
+
+def sky_figure_db(sky: dict, ohm: float) -> float:
+    """The statistic [dB] a resistor chosen under the sky (``sky_termination``) gives at ``ohm``: read off the
+    resistors tried, interpolated in log R (held at the ends beyond them: nothing is known there)."""
+    return float(np.interp(np.log(ohm), np.log(sky["values_ohm"]), np.asarray(sky["figure_db"])))
 
 
 @record
