@@ -84,6 +84,17 @@ def test_layout_command_writes_a_scenario_and_a_plan(tmp_path):
     assert rank.exit_code == 0 and "runs off the lot" not in rank.stderr
 
 
+def test_layout_does_not_write_its_copy_over_the_scenario_it_searches(tmp_path):
+    # The copy drops the place ranges the search reads: written over the scenario (even with --overwrite) the search
+    # could not be run again; refused before any work, the file kept byte for byte.
+    src = tmp_path / "site.toml"
+    src.write_bytes((DATA / FILES[0]).read_bytes())
+    before = src.read_bytes()
+    res = CliRunner().invoke(cli, ["layout", str(src), "--write", str(src), "--overwrite"])
+    assert res.exit_code == 2 and "drops the place ranges" in res.stderr and "another name" in res.stderr
+    assert src.read_bytes() == before and "Traceback" not in res.output
+
+
 @pytest.mark.parametrize(
     "edit, message",
     [

@@ -85,6 +85,46 @@ def test_placement_warnings(cand, code):
         assert not [n for n in r.notices if n.code == "wires-cross"]
 
 
+@pytest.mark.parametrize(
+    "first, second, said",
+    [
+        ('family = "vertical"\nheight = "6 m"\nposition = [100, 100]', None, True),  # two whips on one spot
+        ('family = "vertical"\nheight = "6 m"\nposition = [150.4, 60]', None, True),  # a whip 40 cm off the wire
+        ('family = "vertical"\nheight = "6 m"\nposition = [150, 0]', None, True),  # on the wire's feed point
+        ('family = "vertical"\nheight = "6 m"\nposition = [152, 60]', None, False),  # 2 m off: two antennas
+        (
+            'family = "phased-verticals"\nheight = "6 m"\npositions = [[100, 100], [110, 100]]\nbearing = 90',
+            None,
+            True,
+        ),  # an array's element on the whip
+    ],
+)
+def test_two_antennas_in_one_place_are_said_to_be_alternatives(first, second, said):
+    # Two whips on one spot, a whip on a Beverage's wire or at its feed point, an array's element on a whip: the model
+    # leaves their coupling out, so both cannot be built there; said as alternatives, as two wires in one place are.
+    whip = '[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\nposition = [100, 100]\n'
+    c = f'[[candidate]]\nname = "x"\n{first}\n'
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates=c + "\n" + whip))
+    close = [n for n in r.notices if n.code == "antennas-same-place"]
+    pairs = {frozenset((n.antenna, n.values["other"])) for n in close}
+    assert (frozenset(("x", "inside")) in pairs or frozenset(("x", "whip")) in pairs) is said
+    assert frozenset(("inside", "whip")) not in pairs
+    if said:
+        from snrgain.outputs.messages import notice_text
+
+        assert "fine as alternatives to compare, but both cannot be built there" in notice_text(close[0])
+
+
+def test_a_phasing_units_parts_may_stand_together():
+    # A sense whip beside the Beverage it works with: a unit's parts are built together by design, not alternatives.
+    c = (
+        '[[candidate]]\nname = "sense"\nfamily = "vertical"\nheight = "6 m"\nposition = [150.5, 0]\n\n'
+        '[[candidate]]\nname = "unit"\nfamily = "combination"\nantennas = ["inside", "sense"]\nbearing = 0\n'
+    )
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates=c))
+    assert not [n for n in r.notices if n.code == "antennas-same-place"]
+
+
 def test_a_long_wire_near_the_vertical_is_computed_not_flagged_by_distance():
     """A Beverage whose feed stands 14 m from the resonant vertical: its cost is computed through its line model
     (snrgain.physics.scatter.wire_coupling, checked against NEC-2 in tests/test_tx_scatter.py: a few tenths of a dB

@@ -56,6 +56,11 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     from snrgain.scenario import load, read_source
     from snrgain.tools import layout as lay
 
+    if write_to is not None and _same_file(write_to, scenario):
+        raise ValueError(
+            f"--write {write_to}: that is the scenario layout searches, and the copy drops the place ranges the search "
+            "reads (each placed candidate gets a fixed position, bearing and length); give the copy another name"
+        )
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     check_output(plot, overwrite=overwrite)
     from snrgain.scenario.bands import one_band
@@ -132,3 +137,10 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
         "Before you build: keep wires clear of power lines; call the utilities' locating service before driving "
         "ground rods; mark wires near the ground, they trip people and animals. Follow local codes."
     )
+
+
+def _same_file(a, b) -> bool:
+    """Whether two paths name one existing file."""
+    import os
+
+    return str(a) != "-" and os.path.isfile(a) and os.path.isfile(b) and os.path.samefile(a, b)

@@ -170,6 +170,35 @@ def _one_antenna(a, b) -> bool:
     return sa is not None and sb is not None and sa.group == sb.group
 
 
+def _unit_parts(sc) -> set[frozenset]:
+    """The pairs of antennas a phasing unit combines (built together by design, side by side)."""
+    out = set()
+    for a in sc.antennas:
+        parts = [getattr(p, "name", None) for p in getattr(a, "elements", ())] if a.composite else []
+        out.update(frozenset((x, y)) for i, x in enumerate(parts) for y in parts[i + 1 :])
+    return out
+
+
+def _too_close(shapes, only, wire_names: set[str], unit_pairs: set[frozenset]) -> list[Notice]:
+    """``antennas-same-place`` for two candidates, not both wires (those have their own warnings), whose plan views
+    come within SAME_PLACE_M of each other: two whips on one spot, a whip on a Beverage's wire or at its feed point, an
+    array's element on another's.  Alternatives to compare, not a build: the model leaves the coupling of two
+    antennas that close out.  Not said of the states of one switched antenna, nor of a phasing unit's parts."""
+    out = []
+    for i, (a, s) in enumerate(shapes):
+        for b, t in shapes[i + 1 :]:
+            if s is None or t is None or (a.name in wire_names and b.name in wire_names) or _one_antenna(a, b):
+                continue
+            if (only is not None and a.name not in only and b.name not in only) or frozenset((a.name, b.name)) in (
+                unit_pairs
+            ):
+                continue
+            gap = float(s.distance(t))
+            if gap < SAME_PLACE_M:
+                out.append(Notice("antennas-same-place", a.name, {"other": b.name, "distance_m": gap}))
+    return out
+
+
 def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
     """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical.  With
     ``only`` (antenna names: a sweep's design) just those antennas' own, against the others as they stand; the plan's
@@ -207,6 +236,7 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
                 out.append(Notice("wires-same-place", a.name, {"other": b.name}))
             elif s.crosses(t) or (s.intersects(t) and not s.touches(t)):
                 out.append(Notice("wires-cross", a.name, {"other": b.name}))
+    out.extend(_too_close(shapes, only, {a.name for a, _ in wires}, _unit_parts(sc)))
     from snrgain.model.scatter import tx_antenna
 
     ref = tx_antenna(sc)

@@ -105,6 +105,16 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{n.antenna}: lies where {v['other']} lies; fine as alternatives to compare, but only one can be "
             "built there (built side by side, close wires couple and each changes the other's pattern)"
         )
+    if n.code == "antennas-same-place":
+        where = (
+            f"touches {v['other']}"
+            if v["distance_m"] < 0.05
+            else f"stands {length_text(v['distance_m'], unit, 1)} from {v['other']}"
+        )
+        return (
+            f"{n.antenna}: {where}; fine as alternatives to compare, but both cannot be built there: antennas that "
+            "close couple, which the model leaves out, and each changes the other's pattern"
+        )
     if n.code == "wires-cross":
         return f"{n.antenna}: crosses {v['other']}; wires that cross couple, and one pattern spoils the other"
     if n.code == "near-tx-vertical":
