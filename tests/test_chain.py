@@ -183,3 +183,30 @@ def test_noise_budget_preamp_advice_equals_the_steps_per_cell():
             assert budget.preamp_position == (sorted(where)[-1] if where else None)
             one = chain.preamp_advice(ch, float(t_a.ravel()[8]), margin)[0]
             assert one == cells[8] or (np.isnan(one) and np.isnan(cells[8]))
+
+
+def test_a_best_effort_preamp_comes_within_half_a_db_of_unlimited_gain():
+    """Where no gain brings the margin to the target, the preamplifier suggested (chain.best_effort_preamp) is the
+    gain at which the chain's noise factor lies 0.5 dB above its limit at unlimited gain, by Friis's formula (H. T.
+    Friis, Proc. IRE 32, 1944) worked here by hand on the chain with that gain and with 100 dB; where a lossy feed
+    line stands ahead of the receiver it goes at the antenna, whose limit is more than 0.5 dB lower."""
+    rx = chain.amplifier("rx", gain_db=0, noise_figure_db=18)
+    for cable_db, where in ((0.2, "receiver"), (6.0, "antenna")):
+        ch = chain.Chain((chain.passive("transformer", 0.5), chain.passive("cable", cable_db), rx))
+        t_a = np.array([[40.0, 80.0], [150.0, 300.0]])  # a quiet small loop's few tens to hundreds of kelvin
+        b = chain.best_effort_preamp(ch, t_a)
+        assert b.position == where
+        fitted = chain.with_suggested_preamp(ch, where)
+        limit = fitted.with_preamp_gain(100.0).noise_factor
+        assert 10 * np.log10(fitted.with_preamp_gain(b.gain_db).noise_factor / limit) == pytest.approx(0.5, abs=1e-6)
+        other = chain.with_suggested_preamp(ch, "receiver" if where == "antenna" else "antenna")
+        # at the antenna where that tends to a floor more than 0.5 dB lower; else before the receiver
+        assert bool(10 * np.log10(limit / other.with_preamp_gain(100.0).noise_factor) < -0.5) is (where == "antenna")
+        t_c = fitted.with_preamp_gain(b.gain_db).temperature_k
+        np.testing.assert_allclose(b.snr_loss_db, 10 * np.log10((t_a + t_c) / t_a), rtol=1e-12)
+        budget = chain.noise_budget(ch, t_a, bandwidth_hz=500.0, margin_target_db=10.0)
+        assert np.all(np.isnan(budget.preamp_gain_needed_db))
+        assert (budget.best_effort.gain_db, budget.best_effort.position) == (b.gain_db, b.position)
+        assert np.all(b.snr_loss_db < budget.receiver_snr_loss_db)
+    reachable = chain.noise_budget(ch, np.array([1e7]), bandwidth_hz=500.0, margin_target_db=10.0)
+    assert reachable.best_effort is None  # a gain reaches the target: the budget's own advice stands

@@ -181,6 +181,32 @@ def test_notices_are_data_and_worded_at_the_edge():
     assert limited[0].antenna in sentence and f"{limited[0].values['worst_margin_db']:.1f} dB" in sentence
 
 
+def test_a_receiver_no_preamp_brings_to_the_target_still_gets_the_preamp_that_comes_closest():
+    # An 18 dB noise figure receiver behind 6 dB of cable, asked for 60 dB of margin: no 3 dB preamplifier brings
+    # the sky that far over the floor at every hour, but one at the antenna still recovers most of what the
+    # receiver costs; the table shows its gain marked '*' (it said "none", read as "no preamplifier needed") and the
+    # warning says what it recovers.
+    import io
+
+    from rich.console import Console
+
+    from snrgain.outputs.output import ranking_table
+
+    text = MINIMAL + '\n[receiver]\nnoise_figure = 18\nmargin_target = 60\n\n[chain]\nfeedline = { loss = "6 dB" }\n'
+    r = snrgain.evaluate(text)
+    limited = [n for n in r.notices if n.code == "receiver-limited" and "best_gain_db" in n.values]
+    assert limited
+    v = limited[0].values
+    a = r.antenna(limited[0].antenna)
+    assert v["best_position"] == "antenna" and v["best_max_snr_loss_db"] < 0.1 * v["max_snr_loss_db"]
+    assert np.any(np.isnan(a.preamp_gain_needed_db)) and a.preamp_best_effort["gain_db"] == v["best_gain_db"]
+    assert f"cuts the receiver's cost from up to {v['max_snr_loss_db']:.1f} dB" in notice_text(limited[0])
+    console = Console(width=200, record=True, file=io.StringIO())
+    console.print(ranking_table(r))
+    shown = console.export_text()
+    assert f"{v['best_gain_db']:.0f}*" in shown and "none" not in shown
+
+
 def test_far_ground_rods_set_the_resistor_and_warn_when_they_eat_z0():
     # A BOG ended on one 1.2 m rod: in moist loam (5 mS/m) the rod is 143 ohm (Dwight) and the resistor |Z0| less
     # that; in sandy soil (1 mS/m) the rod's 716 ohm exceeds |Z0| and the user is told to lower it.

@@ -46,6 +46,19 @@ def lobe_away(antenna, freq_hz: float) -> dict | None:
     return {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off} if off > LOBE_AWAY_DEG else None
 
 
+def _best_effort_values(r: AntennaResult) -> dict:
+    """A receiver-limited antenna's best-effort preamplifier (where no gain reaches the margin target at some hour):
+    its gain, where it goes and the worst hour's SNR loss with it, for the notice; {} where a gain reaches it."""
+    b = r.preamp_best_effort
+    if b is None:
+        return {}
+    return {
+        "best_gain_db": float(b["gain_db"]),
+        "best_position": b["position"],
+        "best_max_snr_loss_db": float(np.max(b["snr_loss_db"])),
+    }
+
+
 def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) -> list[Notice]:
     """What the user should know about the results, as codes and numbers (``plan``: the station plan, whose
     switched antennas' states a notice on one of them prefers; ``skies``: the noise sky, with which a phasing unit
@@ -64,6 +77,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
                         "max_snr_loss_db": float(np.max(r.receiver_snr_loss_db)),
                         "preamp_gain_db": float("nan") if np.any(np.isnan(needed)) else float(np.max(needed)),
                         "preamp_position": r.preamp_position,
+                        **_best_effort_values(r),
                     },
                 )
             )

@@ -221,6 +221,13 @@ def antenna_results(sc: Scenario, nominal: Products, skies: noisemod.SkySeries, 
                 receiver_snr_loss_db=budget.receiver_snr_loss_db,
                 preamp_gain_needed_db=budget.preamp_gain_needed_db,
                 preamp_position=budget.preamp_position,
+                preamp_best_effort=None
+                if budget.best_effort is None
+                else {
+                    "gain_db": budget.best_effort.gain_db,
+                    "position": budget.best_effort.position,
+                    "snr_loss_db": budget.best_effort.snr_loss_db,
+                },
                 snr_gain_nominal_db=median[k],
                 snr_gain_median_db=median[k] if spread is None else spread.median_db[k],
                 snr_gain_p10_db=median[k] if spread is None else spread.p10_db[k],

@@ -54,6 +54,9 @@ class AntennaResult:
     preamp_position : where that preamplifier goes: "receiver" (before the receiver), "antenna" (after the
         transformer, where a lossy feed line follows), "as placed" (the chain's own), None if no gain helps
     receiver_limited : True if margin_db falls below the margin target at any hour
+    preamp_best_effort : where no preamplifier gain brings the margin to the target at some hour, the one that comes
+        closest (snrgain.physics.chain.best_effort_preamp): gain_db, position, snr_loss_db (per month and hour, the
+        receiver's SNR loss with it); else None
     chain : noise_figure_db, gain_db, noise_floor_dbm (at the receiver input), stages
     """
 
@@ -85,6 +88,7 @@ class AntennaResult:
     """The switched antenna this is one state of (the name written on the candidate; ``directions``), else None."""
     state: str | None = None
     """The state's label within its group, e.g. "NE (45 deg)"; None for an antenna that is not switched."""
+    preamp_best_effort: dict[str, Any] | None = None
 
     def __repr__(self) -> str:
         per = ", ".join(f"{signed_text(m)}" for m in self.snr_gain_median_db)
@@ -405,6 +409,13 @@ def _antenna_dict(a: AntennaResult) -> dict[str, Any]:
         "receiver_snr_loss_db": {"axes": ["month", "utc_hour"], "values": a.receiver_snr_loss_db},
         "preamp_gain_needed_db": {"axes": ["month", "utc_hour"], "values": a.preamp_gain_needed_db},
         "preamp_position": a.preamp_position,
+        "preamp_best_effort": None
+        if a.preamp_best_effort is None
+        else {
+            "gain_db": a.preamp_best_effort["gain_db"],
+            "position": a.preamp_best_effort["position"],
+            "snr_loss_db": {"axes": ["month", "utc_hour"], "values": a.preamp_best_effort["snr_loss_db"]},
+        },
         "receiver_limited": a.receiver_limited,
         "chain": a.chain,
     }

@@ -58,7 +58,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
             f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
-            f"{v['max_snr_loss_db']:.1f} dB of SNR. " + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
+            f"{v['max_snr_loss_db']:.1f} dB of SNR. "
+            + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
+            + best_effort_text(v)
         )
     if n.code == "given-phasing-short":
         lags = ", ".join(f"{x:g}" for x in v["best_lags_deg"])
@@ -302,6 +304,23 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     detail = ", ".join(f"{k} = {val}" for k, val in sorted(v.items()))
     return f"{n.antenna + ': ' if n.antenna else ''}{n.code}" + (f" ({detail})" if detail else "")
+
+
+def best_effort_text(v: dict) -> str:
+    """Where no preamplifier reaches the margin target, what one still recovers (a receiver-limited notice's values
+    best_gain_db, best_position, best_max_snr_loss_db), in words; "" where one reaches it."""
+    if "best_gain_db" not in v:
+        return ""
+    if v["best_position"] == "as placed":
+        which = "the chain's preamplifier"
+    else:
+        where = "before the receiver" if v["best_position"] == "receiver" else "at the antenna (after the transformer)"
+        which = f"a preamplifier of {SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
+    return (
+        f" Still, {which}, with about {v['best_gain_db']:.0f} dB of gain (within 0.5 dB of the best any gain gives), "
+        f"cuts the receiver's cost from up to {v['max_snr_loss_db']:.1f} dB to up to "
+        f"{v['best_max_snr_loss_db']:.1f} dB of SNR."
+    )
 
 
 def preamp_advice_text(gain_db: float, position: str | None) -> str:

@@ -106,11 +106,15 @@ def _f(x, fmt="{:+.1f}"):
     return number_text(x, fmt)  # a small negative that rounds to zero reads 0.0, not -0.0
 
 
-def _preamp_cell(limited: bool, gain_db) -> str:
+def _preamp_cell(limited: bool, gain_db, best_effort: dict | None = None) -> str:
+    """The preamp column: the gain that brings the margin to the target at every hour; where none can, the gain of
+    the preamplifier that comes closest, marked '*' ('none' if there is none to fit)."""
     if not limited:
         return "-"
     g = np.asarray(gain_db, dtype=float)
-    return "none" if np.any(np.isnan(g)) else f"{float(np.max(g)):.0f}"
+    if not np.any(np.isnan(g)):
+        return f"{float(np.max(g)):.0f}"
+    return "none" if best_effort is None else f"{best_effort['gain_db']:.0f}*"
 
 
 def hours_text(hours) -> str:
@@ -243,7 +247,7 @@ def target_table(r: Results, i: int, lab=None):
             _f(np.clip(float(lab.get("front_to_back_db", antenna=k, target=i)), -99, 99)),
             f"{noise:.1f} ({s_units(noise)})",
             Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
-            _preamp_cell(limited, lab.get("preamp_gain_needed_db", antenna=k)),
+            _preamp_cell(limited, lab.get("preamp_gain_needed_db", antenna=k), r.antenna(names[k]).preamp_best_effort),
         ]
         rows.append((cells, style))
     labels = (
@@ -616,7 +620,8 @@ def ranking_table(results: Results, *, build: bool = False):
             "of the transmitting vertical's figures and of auto steering); "
             "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
             "hour); '!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the "
-            "target ('none' if no gain can).",
+            "target ('*': no gain can at every hour, and this gain comes within 0.5 dB of the best any gain gives; "
+            "its warning says what it recovers).",
             style="dim",
         )
     )

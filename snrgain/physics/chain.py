@@ -211,6 +211,48 @@ def _preamp_rule(chain: Chain):
     return rule
 
 
+BEST_EFFORT_SHORT_DB = 0.5
+"""Where no preamplifier gain brings the margin to the target, the gain suggested brings the chain's noise factor
+within this of what the preamplifier tends to at unlimited gain [dB]: more gain buys at most this much."""
+
+
+@record
+class BestEffortPreamp:
+    """The preamplifier to fit where none reaches the margin target: its gain [dB], where it goes ("receiver",
+    "antenna", "as placed"), and the receiver's SNR loss with it [dB] (per month and hour, as the budget's)."""
+
+    gain_db: float
+    position: str
+    snr_loss_db: np.ndarray
+
+
+def best_effort_preamp(chain: Chain, antenna_temperature_k) -> BestEffortPreamp:
+    """The preamplifier that comes within BEST_EFFORT_SHORT_DB of the lowest noise factor a preamplifier can give the
+    chain (its own, or a suggested one of SUGGESTED_PREAMP_NOISE_FIGURE_DB before the receiver, or at the antenna where
+    that tends to a noise factor more than BEST_EFFORT_SHORT_DB lower: a lossy feed line ahead): by Friis's formula
+    (H. T. Friis, Proc. IRE 32, 1944) the noise factor with gain G is F_b + (F_p - 1) / G_b + (F_a - 1) / (G_b G),
+    within a factor 10^(0.05) of its limit where (F_a - 1) / (G_b G) = F_lim (10^(0.05) - 1).  What it recovers is the
+    SNR loss with it against the chain's own (``receiver_snr_loss_db`` of the noise budget)."""
+    options = [("as placed", chain)] if chain.preamp_index is not None else []
+    options = options or [(pos, with_suggested_preamp(chain, pos)) for pos in ("receiver", "antenna")]
+    best = None
+    for position, c in options:
+        before, after = list(c.stages[: c.preamp_index]), list(c.stages[c.preamp_index + 1 :])
+        f_b, g_b = friis(before) if before else (1.0, 1.0)
+        f_a = friis(after)[0] if after else 1.0
+        f_p = c.stages[c.preamp_index].noise_factor
+        limit = f_b + (f_p - 1) / g_b if before else f_p
+        g = (f_a - 1) / (g_b * limit * (10 ** (BEST_EFFORT_SHORT_DB / 10) - 1))
+        gain_db = float(max(10 * np.log10(g), 0.0)) if g > 0 else 0.0
+        if best is None or limit * 10 ** (BEST_EFFORT_SHORT_DB / 10) < best[0]:  # at the antenna: 0.5 dB better
+            best = (limit, position, gain_db, c.with_preamp_gain(gain_db))
+    _, position, gain_db, fitted = best
+    t_a = np.asarray(antenna_temperature_k, dtype=float)
+    with np.errstate(divide="ignore"):
+        loss = 10.0 * np.log10((t_a + fitted.temperature_k) / t_a)
+    return BestEffortPreamp(gain_db, position, loss)
+
+
 SUGGESTED_PREAMP_NOISE_FIGURE_DB = 3.0
 """Noise figure of the preamplifier assumed when the chain has none and one is suggested (common practice
 for low-band receiving preamplifiers)."""
@@ -298,6 +340,8 @@ class NoiseBudget:
     receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
     preamp_gain_needed_db : preamplifier gain that brings the margin to the target; 0 if met, NaN if none can [dB]
     preamp_position : "receiver", "antenna", "as placed" (see :func:`preamp_advice`), or None
+    best_effort : where no gain reaches the target at some hour, the preamplifier that comes closest
+        (:func:`best_effort_preamp`); else None
     """
 
     noise_dbm: np.ndarray
@@ -306,6 +350,7 @@ class NoiseBudget:
     receiver_snr_loss_db: np.ndarray
     preamp_gain_needed_db: np.ndarray
     preamp_position: str | None
+    best_effort: BestEffortPreamp | None = None
 
 
 def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, margin_target_db: float) -> NoiseBudget:
@@ -322,7 +367,8 @@ def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, ma
     advice = [advise(float(t), margin_target_db) for t in t_a.ravel()]
     needed = np.array([a[0] for a in advice], dtype=float).reshape(t_a.shape)
     where = sorted({a[1] for a in advice if a[1]})
-    return NoiseBudget(noise, floor, noise - floor, loss, needed, where[-1] if where else None)
+    best = best_effort_preamp(chain, t_a) if np.any(np.isnan(needed)) else None
+    return NoiseBudget(noise, floor, noise - floor, loss, needed, where[-1] if where else None, best)
 
 
 def describe(chain: Chain, *, bandwidth_hz: float) -> dict:
