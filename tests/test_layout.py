@@ -439,3 +439,64 @@ def test_a_lot_too_narrow_for_any_place_says_so():
     problem = Problem(load(data), data)
     with pytest.raises(ValueError, match="no place of the search's grid lies on the lot"):
         problem.search(keep=1)
+
+
+LOOP_SITE = """
+[site]
+name = "Plover Yard (invented)"
+latitude = 42.4
+longitude = -71.2
+ground = "moist loam"
+lot = [[-20, -10], [30, -10], [30, 70], [-20, 70]]
+
+[band]
+frequency = "3.55 MHz"
+bandwidth = "2.4 kHz"
+
+[time]
+months = [1]
+utc_hours = [2]
+
+[noise.man_made]
+environment = "residential"
+
+[noise.atmospheric]
+model = "none"
+
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = [5, 25]
+
+[[target]]
+name = "Japan"
+bearing = 335
+elevation = [5, 15]
+
+[reference]
+name = "vertical"
+family = "vertical"
+height = "20 m"
+position = [-10, 60]
+
+[[candidate]]
+name = "small loop"
+family = "small-loop"
+width = "1 m"
+loop_height = "1 m"
+height = "2 m"
+bearing = 135
+position = [20, 40]
+place = {}
+"""
+
+
+def test_layout_scores_a_figure_eight_toward_the_target_nearest_either_lobe():
+    # A small loop's plane along 135-315 deg hears 315 deg as well as 135 deg: Japan at 335 deg lies 20 deg off its
+    # lobe, Europe at 45 deg broadside, in its null. The search scored it toward Europe (the target nearest 135 deg
+    # alone) and the layout table named Europe; the ranking of the same loop serves Japan.
+    import tomllib
+
+    data = tomllib.loads(LOOP_SITE)
+    pr = Problem(load(data), data, base_dir=REPO)
+    assert [pr.sc.targets[t].name for t in pr.target[0]] == ["Japan"]

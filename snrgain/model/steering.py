@@ -13,9 +13,11 @@ from snrgain.model.scatter import bare, beside
 from snrgain.scenario import Scenario
 
 
-def nearest_target(sc: Scenario, bearing_rad: float) -> int:
-    """Index of the target whose bearing lies nearest ``bearing_rad``."""
-    off = [abs((t.bearing_rad - bearing_rad + np.pi) % (2 * np.pi) - np.pi) for t in sc.targets]
+def nearest_target(sc: Scenario, bearing_rad: float, both_ways: bool = False) -> int:
+    """Index of the target whose bearing lies nearest ``bearing_rad`` (``both_ways``: a figure-eight's, nearest either
+    of its two lobes, ``bearing_rad`` and the opposite bearing)."""
+    ways = (bearing_rad, bearing_rad + np.pi) if both_ways else (bearing_rad,)
+    off = [min(abs((t.bearing_rad - b + np.pi) % (2 * np.pi) - np.pi) for b in ways) for t in sc.targets]
     return int(np.argmin(off))
 
 

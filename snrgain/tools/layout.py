@@ -167,7 +167,7 @@ class Problem:
                 self.target.append(tuple(sorted({nearest_target(sc, b) for b in bearings})))
                 continue
             b = _middle(pl.bearing) if pl.bearing is not None else (_bearing_of(ant) or 0.0)
-            self.target.append((nearest_target(sc, b),))
+            self.target.append((nearest_target(sc, b, getattr(ant, "both_ways", False)),))
         from snrgain.model.scatter import tx_antenna
 
         self.tx = None
