@@ -221,6 +221,28 @@ def test_a_local_source_that_is_most_of_a_candidates_noise_is_said():
     assert text.startswith("whip: the local source 'tv' is most of its noise (")
 
 
+def test_a_reference_deafened_by_a_local_source_is_said():
+    """The same notice of the reference: with the TV 10 dB louder, it is most of the reference's noise,
+    so every gain over it is largely how much less of the TV a candidate hears (a tester's 80 m vertical heard a
+    television at -79 dBm against -92 dBm of man-made noise, and every quiet antenna "won" without a word)."""
+    import numpy as np
+
+    from snrgain.outputs.messages import notice_text
+
+    text = BASE.format(extra_site="", candidates="").replace("fa = 60", "fa = 70")
+    assert "fa = 70" in text  # 10 dB more where the reference stands: 6 dB over the man-made noise there
+    r = snrgain.evaluate(text)
+    said = [n for n in r.notices if n.code == "local-source-dominates" and n.antenna == r.reference.name]
+    assert len(said) == 1 and said[0].values["reference"] is True
+    watts = {k: 10 ** (np.asarray(v, dtype=float) / 10) for k, v in r.reference.noise_by_component_dbm.items()}
+    assert said[0].values["over_db"] == pytest.approx(
+        10 * np.log10(np.median(watts["tv"]) / np.median(sum(w for k, w in watts.items() if k != "tv"))), abs=1e-9
+    )
+    assert "every SNR gain here is largely how much less of it a candidate hears" in notice_text(said[0])
+    far = snrgain.evaluate(BASE.format(extra_site="", candidates=""))  # as written, 4 dB under the man-made: not said
+    assert not [n for n in far.notices if n.code == "local-source-dominates" and n.antenna == far.reference.name]
+
+
 @pytest.mark.parametrize(
     "cand, field",
     [
@@ -295,3 +317,20 @@ def test_a_placed_source_keeps_its_distance_from_a_structure_and_an_array_placed
         p == 'candidate 2 ("arr").elements' and "0.30 m from the transmitting vertical" in m
         for p, m in err.value.problems
     )
+
+
+def test_the_header_gives_a_level_read_on_an_antenna_as_written():
+    """A source's level read on an antenna is shown as written beside its Fa on P.372's reference monopole: a
+    tester's "S8" on the reference read "Fa 68.9 dB", which on the monopole is about S9, and looked like a mistake."""
+    import html
+
+    from snrgain.outputs.output import _header
+    from snrgain.outputs.report import render
+
+    text = BASE.format(extra_site="", candidates="").replace("fa = 60", 'level = "S8"')
+    r = snrgain.evaluate(text)
+    src = next(s for s in r.local_sources if s["name"] == "tv")
+    assert src["level_dbm"] == pytest.approx(-79.0) and src["read_on"] == r.reference.name
+    said = f"tv: Fa {float(r.noise.components['tv']['fa_db'].ravel()[0]):.1f} dB (read S8, -79.0 dBm, on "
+    assert said + f"{r.reference.name})" in str(_header(r))
+    assert f"tv (read S8, -79.0 dBm, on {r.reference.name})" in html.unescape(render(r))

@@ -91,7 +91,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
             z0 = abs(ant.line(sc.freq_hz).z0)
             if far > 0.7 * z0:
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
-    out.extend(local_source_notices(sc, antennas[1:]))
+    out.extend(local_source_notices(sc, antennas))
     out.extend(fragile_termination_notices(sc))
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
@@ -195,11 +195,11 @@ def reference_setting_notices(sc: Scenario) -> list[Notice]:
 
 
 def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[Notice]:
-    """``local-source-dominates`` (source, source_dbm, rest_dbm, over_db) for each candidate whose loudest local
-    source lies LOCAL_DOMINATES_DB or more above the rest of the noise it hears (the sky and the other sources; the
-    receiving chain's own noise apart), both at the receiver input and as medians
-    over the scenario's months and hours: its SNR gain then rests on how it hears that source, not on its
-    directivity toward the sky."""
+    """``local-source-dominates`` (source, source_dbm, rest_dbm, over_db, reference) for each antenna whose loudest
+    local source lies LOCAL_DOMINATES_DB or more above the rest of the noise it hears (the sky and the other
+    sources; the receiving chain's own noise apart), both at the receiver input and as medians
+    over the scenario's months and hours: a candidate's SNR gain then rests on how it hears that source, not on its
+    directivity toward the sky; the reference's (``reference`` True), every candidate's gain over it does."""
     from snrgain.model.spread import median  # np.median's value without loading numpy.ma
 
     names = [s.name for s in sc.noise.local]
@@ -220,7 +220,13 @@ def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[
                 Notice(
                     "local-source-dominates",
                     r.name,
-                    {"source": loudest, "source_dbm": src_dbm, "rest_dbm": rest_dbm, "over_db": src_dbm - rest_dbm},
+                    {
+                        "source": loudest,
+                        "source_dbm": src_dbm,
+                        "rest_dbm": rest_dbm,
+                        "over_db": src_dbm - rest_dbm,
+                        "reference": r.name == sc.antennas[0].name,
+                    },
                 )
             )
     return out
@@ -438,6 +444,8 @@ def _local_source_dicts(sc: Scenario) -> list[dict]:
             "bearing_deg": bearing_deg(s.bearing_rad),
             "elevation_deg": float(np.degrees(s.elevation_rad)),
             "spread_deg": float(np.degrees(s.spread_rad)),
+            "level_dbm": s.level_dbm,
+            "read_on": s.read_on if s.level_dbm is not None else None,
         }
         for s in sc.noise.local
     ]

@@ -224,11 +224,19 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             if np.isfinite(v["rest_dbm"])
             else "and nothing else is heard"
         )
-        return (
+        head = (
             f"{n.antenna}: the local source {v['source']!r} is most of its noise ({v['source_dbm']:.1f} dBm {rest}, "
-            "medians over the hours): its SNR gain rests on how it "
-            "hears that source, not on its directivity toward the sky; a null toward the source, another place, or "
-            "quieting the source gains more than a sharper pattern"
+            "medians over the hours): "
+        )
+        if v.get("reference"):
+            return head + (
+                "the reference hears it above the sky, so every SNR gain here is largely how much less of it a "
+                "candidate hears, not how much better it hears the sky; quieting the source (or moving the reference "
+                "away from it) changes every gain, and a candidate's RDF says more about the sky than its gain does"
+            )
+        return head + (
+            "its SNR gain rests on how it hears that source, not on its directivity toward the sky; a null toward the "
+            "source, another place, or quieting the source gains more than a sharper pattern"
         )
     if n.code == "feed-line-cost":
         about = float(f"{v['choke_ohm']:.2g}")  # a choke's impedance is known to a few per cent at best

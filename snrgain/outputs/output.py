@@ -152,16 +152,21 @@ def _header(r: Results):
     head.append(f"  {r.site['latitude_deg']:.2f}, {r.site['longitude_deg']:.2f}  ground: {ground_text(r.site)}\n")
     head.append(f"{r.freq_hz / 1e6:g} MHz in {r.bandwidth_hz:g} Hz; reference: {r.reference.name}\n")
     noise_bits = []
+    read = {s["name"]: s for s in r.local_sources if s.get("level_dbm") is not None}
     for name, c in r.noise.components.items():
         fa = c["fa_db"]
         finite = fa[np.isfinite(fa)]
         some_screened = " (screened at some hours)" if 0 < finite.size < fa.size else ""
+        as_read = ""
+        if name in read:  # a level read on an antenna: as written there (its Fa is what the monopole would read)
+            level = read[name]["level_dbm"]
+            as_read = f" (read {s_units(level)}, {level:.1f} dBm, on {read[name]['read_on']})"
         if finite.size == 0:
             noise_bits.append(f"{name}: screened")
         elif np.ptp(finite) < 0.05:
-            noise_bits.append(f"{name}: Fa {finite[0]:.1f} dB{some_screened}")
+            noise_bits.append(f"{name}: Fa {finite[0]:.1f} dB{as_read}{some_screened}")
         else:
-            noise_bits.append(f"{name}: Fa {finite.min():.1f} to {finite.max():.1f} dB{some_screened}")
+            noise_bits.append(f"{name}: Fa {finite.min():.1f} to {finite.max():.1f} dB{as_read}{some_screened}")
     head.append("Noise on P.372's reference monopole: " + "; ".join(noise_bits) + "\n")
     stages = ", ".join(
         f"{st['name']} {signed_text(st['gain_db'])} dB"

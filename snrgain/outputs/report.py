@@ -148,11 +148,16 @@ def _summary(r) -> str:
         "<table><tr><th class='name'>Noise component (P.372 reference monopole)</th><th>Fa min (dB)</th>"
         "<th>Fa max (dB)</th><th>upper decile (dB)</th><th>lower decile (dB)</th></tr>"
     )
+    read = {s["name"]: s for s in r.local_sources if s.get("level_dbm") is not None}
     for name, c in r.noise.components.items():
         fa = c["fa_db"][np.isfinite(c["fa_db"])]
         lo, hi = (fa.min(), fa.max()) if fa.size else (np.nan, np.nan)
+        label = _e(name)
+        if name in read:  # a level read on an antenna: as written there
+            lv = read[name]["level_dbm"]
+            label += f" (read {s_units(lv)}, {lv:.1f} dBm, on {_e(read[name]['read_on'])})"
         out.append(
-            f"<tr><td class='name'>{_e(name)}</td><td>{_f(lo, '{:.1f}')}</td><td>{_f(hi, '{:.1f}')}</td>"
+            f"<tr><td class='name'>{label}</td><td>{_f(lo, '{:.1f}')}</td><td>{_f(hi, '{:.1f}')}</td>"
             f"<td>{_f(np.nanmean(c['du_db']), '{:.1f}')}</td><td>{_f(np.nanmean(c['dl_db']), '{:.1f}')}</td></tr>"
         )
     tot = r.noise.total_fa_db
