@@ -171,7 +171,10 @@ def test_cli_example_fits_and_writes_a_copy_that_ranks(tmp_path):
     assert new.startswith(Path(WREN).read_text().rstrip("\n"))
     assert tomllib.loads(new)["noise"]["man_made"]["offset"] == f"{got['fitted_db']:+.1f} dB"
     rank = CliRunner().invoke(cli, ["rank", str(dest)])
-    assert rank.exit_code == 0 and "warning" not in rank.output.lower()
+    # no warning about the copy itself; the quieter man-made level fitted leaves the supply read S7 on the TX
+    # vertical most of its noise, which the ranking explains (local-source-dominates), not a fault of the copy
+    warned = [ln for ln in rank.output.lower().splitlines() if "warning" in ln and "is most of its noise" not in ln]
+    assert rank.exit_code == 0 and not warned
     again = CliRunner().invoke(cli, args)
     assert again.exit_code != 0 and "exists" in again.output and dest.read_text() == new
 

@@ -625,8 +625,7 @@ def ranking_table(results: Results, *, build: bool = False):
             "of the transmitting vertical's figures and of auto steering); "
             "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
             "hour); '!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the "
-            "target ('*': no gain can at every hour, and this gain comes within 0.5 dB of the best any gain gives; "
-            "its warning says what it recovers).",
+            "target ('*': no gain can at every hour, and this gain comes within 0.5 dB of the best any gain gives).",
             style="dim",
         )
     )
