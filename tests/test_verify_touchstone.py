@@ -149,3 +149,88 @@ def test_sweep_through_a_feed_line_is_flagged(model):
     assert any("feed line" in w for w in res.warnings)
     direct = ts.analyse(ts.Sweep(FREQ_HZ, z, "direct"), length_m=ant.length_m, far_end="open")
     assert direct.reactance_share < 0.1 and not direct.warnings
+
+
+def _wire_toml(path, *sweeps):
+    body = '[wire]\nfamily = "beverage"\nlength = "250 m"\nheight = "2 m"\n'
+    for name, far_end in sweeps:
+        body += f'\n[[sweep]]\nfile = "{name}"\nfar_end = "{far_end}"\n'
+    path.write_text(body)
+    return path
+
+
+GOOD_ROWS = "2.0 0.1 0.2\n3.0 0.2 0.1\n4.0 0.3 0.1\n5.0 0.1 0.3\n6.0 0.2 0.2\n"
+
+
+@pytest.mark.parametrize(
+    "head, bad, said",
+    [
+        (
+            "# MHz S RI R 50",
+            "-1.0 0.1 0.2",
+            "line 2 ('-1.0 0.1 0.2'): frequency -1 MHz; a sweep's points lie above 0 Hz",
+        ),
+        (
+            "# MHz S RI R 50",
+            "0 0.1 0.2",
+            "line 2 ('0 0.1 0.2'): frequency 0 MHz; a sweep's points lie above 0 Hz and at",
+        ),
+        (
+            "# MHz S RI R 50",
+            "1e30 0.1 0.2",
+            "line 2 ('1e30 0.1 0.2'): frequency 1e+30 MHz; a sweep's points lie above 0",
+        ),
+        ("# Hz S RI R 50", "301e6 0.1 0.2", "frequency 301 MHz; a sweep's points lie above 0 Hz and at most 300 MHz"),
+        ("# MHz S MA R 50", "1.0 5.0 30", "line 2 ('1.0 5.0 30'): reflection |S| 5 (+14.0 dB) against R 50 ohm"),
+        ("# MHz S DB R 50", "1.0 20 30", "line 2 ('1.0 20 30'): reflection |S| 10 (+20.0 dB) against R 50 ohm"),
+        ("# MHz Z RI R 50", "1.0 -2 0.5", "line 2 ('1.0 -2 0.5'): reflection |S| 2.72 (+8.7 dB) against R 50 ohm"),
+        ("# MHz Z RI R 50", "1.0 0 0", "line 2 ('1.0 0 0'): impedance 0 ohm; a wire at its feed never reads"),
+    ],
+)
+def test_a_sweeps_values_out_of_range_are_refused(tmp_path, head, bad, said):
+    # A negative frequency, 0 Hz, 1e30 MHz and |S| 5 or +20 dB (no passive load's) passed with exit 0.
+    path = tmp_path / "sweep.s1p"
+    rows = GOOD_ROWS if "Hz " not in head[:5] else GOOD_ROWS.replace(".0 ", ".0e6 ")
+    path.write_text(f"{head}\n{bad}\n{rows}")
+    with pytest.raises(ts.SweepError) as err:
+        ts.read_sweep(path)
+    assert str(err.value).startswith(f"{path} "), str(err.value)
+    assert said in str(err.value)
+    if "|S|" in said:
+        assert "a passive wire reflects at most |S| 1" in str(err.value)
+
+
+@pytest.mark.parametrize("text", ["# MHz Z RI R 50\n", "# MHz Z RI R 50\n1.0 0.1 0.2\n"])
+def test_a_sweep_of_too_few_points_is_refused(tmp_path, text):
+    path = tmp_path / "sweep.s1p"
+    path.write_text(text)
+    with pytest.raises(ts.SweepError, match="fewer than 5 points"):
+        ts.read_sweep(path)
+
+
+def test_values_just_inside_the_ranges_are_read(tmp_path):
+    # |S| a little over 1 (an analyser's calibration error on a nearly open point) and 300 MHz are taken
+    path = tmp_path / "sweep.s1p"
+    path.write_text("# MHz S MA R 50\n1.0 1.02 -80\n" + GOOD_ROWS.replace("6.0 0.2 0.2", "300 0.2 0.2"))
+    assert ts.read_sweep(path).freq_hz[-1] == 300e6
+
+
+@pytest.mark.parametrize(
+    "head, said",
+    [
+        ("# MHz Z RI R 0", "line 1: reference resistance 0 ohm ('# MHz Z RI R 0')"),
+        ("# MHz Z RI R -50", "line 1: reference resistance -50 ohm ('# MHz Z RI R -50')"),
+        ("! an analyser's file\n# MHz S RI R", "line 2: reference resistance (none) ohm"),
+        ("[Version] 2.0\n# MHz Z RI\n[Number of Ports] 1\n[Reference] 0", "line 4: reference resistance 0 ohm"),
+    ],
+)
+def test_a_reference_resistance_not_above_0_is_refused(tmp_path, head, said):
+    # R 0 stopped calibrate with "cannot convert float NaN to integer"; R -50 with scikit-rf's words on infinities.
+    path = tmp_path / "sweep.s1p"
+    path.write_text(f"{head}\n" + ("[Network Data]\n" if "Version" in head else "") + GOOD_ROWS)
+    with pytest.raises(ts.SweepError) as err:
+        ts.read_sweep(path)
+    assert str(err.value).startswith(f"{path} {said}"), str(err.value)
+    assert "the reference resistance must be more than 0 ohm" in str(err.value)
+    out = CliRunner().invoke(cli, ["calibrate", str(_wire_toml(tmp_path / "w.toml", ("sweep.s1p", "open")))])
+    assert out.exit_code == 2 and "sweep.s1p line" in out.output and "Traceback" not in out.output, out.output

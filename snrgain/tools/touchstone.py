@@ -26,6 +26,7 @@ warning reads (:data:`REACTANCE_SHARE_WARN`).
 
 from __future__ import annotations
 
+import re
 from dataclasses import field
 from pathlib import Path
 
@@ -40,6 +41,13 @@ REACTANCE_SHARE_WARN = 0.2
 feed reads about 0.03 in the tests; one metre of 50 ohm coax in between, 0.37)."""
 MAX_SWEEP_BYTES = 20_000_000
 """The largest Touchstone file read [bytes]."""
+SWEEP_MAX_FREQ_HZ = 300e6
+"""The highest frequency a sweep's point may have [Hz]: a decade above the tool's top (30 MHz).  A wire for the
+bands the tool covers is swept no higher; a point above is a unit's slip (Hz read as MHz, the option line's unit
+missing).  The lowest: more than 0 Hz."""
+PASSIVE_S_MAX = 1.05
+"""The largest reflection |S| a sweep's point may have [-]: a passive wire reflects at most 1 (its resistance is not
+negative); the 0.05 allows an analyser's calibration error (a few hundredths on an open, common practice)."""
 
 
 class SweepError(ValueError):
@@ -67,6 +75,8 @@ def read_sweep(path: str | Path) -> Sweep:
         raw = read_limited(p, limit_bytes=MAX_SWEEP_BYTES, what="sweep")
     except InputFileError as exc:
         raise SweepError(str(exc)) from None
+    text = raw.decode("utf-8", errors="replace")
+    _check_reference(p, text)
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # scikit-rf warns of frequencies out of order; they are sorted below
@@ -74,13 +84,16 @@ def read_sweep(path: str | Path) -> Sweep:
             if net.nports == 1:
                 f = np.asarray(net.f, dtype=float)
                 z = np.asarray(net.z[:, 0, 0], dtype=complex)
+                s = np.asarray(net.s[:, 0, 0], dtype=complex)
     except Exception as exc:  # noqa: BLE001 - scikit-rf raises many kinds for a file it cannot read
         raise SweepError(_line_at_fault(p, raw) or f"{p}: not a Touchstone file scikit-rf can read ({exc})") from None
     if net.nports != 1:
         raise SweepError(f"{p}: a 1-port sweep (.s1p) is needed; this file has {net.nports} ports")
-    ok = np.isfinite(f) & np.isfinite(z)
+    ok = np.isfinite(f) & np.isfinite(s) & np.isfinite(z)
     if not ok.all():
         raise SweepError(_line_at_fault(p, raw) or f"{p}: {int((~ok).sum())} points are not finite numbers")
+    r_ohm = np.real(np.ravel(net.z0))
+    _check_points(p, _data_lines(text), f, s, z, float(r_ohm[0]) if r_ohm.size else float("nan"))
     if ok.sum() < 5:
         raise SweepError(f"{p}: fewer than 5 points (a sweep across the wire's resonances needs more)")
     order = np.argsort(f, kind="stable")
@@ -95,11 +108,7 @@ def _line_at_fault(p: Path, raw: bytes) -> str | None:
     """'FILE line N: ...' for the first data line of a Touchstone 1-port file that is not three finite numbers
     (frequency and one complex value), else None.  Comments (``!``), the option line (``#``) and Touchstone 2's
     keyword lines (``[...]``) are passed over."""
-    text = raw.decode("utf-8", errors="replace")
-    for number, line in enumerate(text.splitlines(), start=1):
-        data = line.split("!", 1)[0].strip()
-        if not data or data.startswith(("#", "[")):
-            continue
+    for number, data in _data_lines(raw.decode("utf-8", errors="replace")):
         words = data.split()
         try:
             values = [float(w) for w in words]
@@ -111,6 +120,86 @@ def _line_at_fault(p: Path, raw: bytes) -> str | None:
         if not np.all(np.isfinite(values)):
             return f"{p} line {number}: {data!r} holds a value that is not a finite number"
     return None
+
+
+def _lines(text: str) -> list[str]:
+    """The file's lines as a reader opening it as text splits them (at LF, CR LF or a lone CR)."""
+    return re.split(r"\r\n|\r|\n", text)
+
+
+def _data_lines(text: str) -> list[tuple[int, str]]:
+    """(line number, text without its comment) of each data line: comments (``!``), the option line (``#``) and
+    Touchstone 2's keyword lines (``[...]``) passed over.  A 1-port point takes one line."""
+    out = []
+    for number, line in enumerate(_lines(text), start=1):
+        data = line.split("!", 1)[0].strip()
+        if data and not data.startswith(("#", "[")):
+            out.append((number, data))
+    return out
+
+
+def _check_reference(p: Path, text: str) -> None:
+    """SweepError naming the line unless every reference resistance the file gives (the option line's ``R``,
+    Touchstone 2's ``[Reference]``) is a number more than 0 ohm (scikit-rf turned R 0 into NaN and R -50 into
+    infinities, and reported neither)."""
+    for number, line in enumerate(_lines(text), start=1):
+        data = line.split("!", 1)[0].strip()
+        words = data.split()
+        if data.startswith("#"):
+            upper = [w.upper() for w in data[1:].split()]
+            if "R" not in upper:
+                continue
+            i = upper.index("R")
+            values = data[1:].split()[i + 1 : i + 2] or ["(none)"]
+        elif data.lower().startswith("[reference]"):
+            values = words[1:]
+        else:
+            continue
+        for v in values:
+            try:
+                ok = float(v) > 0 and np.isfinite(float(v))
+            except ValueError:
+                ok = False
+            if not ok:
+                raise SweepError(
+                    f"{p} line {number}: reference resistance {v} ohm ({data!r}): the reference resistance must be "
+                    "more than 0 ohm (the analyser's, usually R 50)"
+                )
+
+
+def _check_points(p: Path, data: list[tuple[int, str]], f, s, z, r_ohm: float) -> None:
+    """SweepError naming the line, the value and the range allowed for the first point whose frequency is not in
+    (0, :data:`SWEEP_MAX_FREQ_HZ`], whose reflection |S| is over :data:`PASSIVE_S_MAX` (not a passive load), or whose
+    impedance is 0 ohm (not a wire at its feed)."""
+
+    def where(i: int) -> str:
+        if len(data) == len(f):
+            return f"{p} line {data[i][0]} ({data[i][1]!r})"
+        return f"{p} point {i + 1}"
+
+    bad = np.flatnonzero(~((f > 0) & (f <= SWEEP_MAX_FREQ_HZ)))
+    if bad.size:
+        i = int(bad[0])
+        raise SweepError(
+            f"{where(i)}: frequency {f[i] / 1e6:g} MHz; a sweep's points lie above 0 Hz and at most "
+            f"{SWEEP_MAX_FREQ_HZ / 1e6:g} MHz: check the frequency column and its unit on the option line (# MHz ...)"
+        )
+    mag = np.abs(s)
+    bad = np.flatnonzero(mag > PASSIVE_S_MAX)
+    if bad.size:
+        i = int(bad[0])
+        raise SweepError(
+            f"{where(i)}: reflection |S| {mag[i]:.3g} ({20 * np.log10(mag[i]):+.1f} dB) against R {r_ohm:g} ohm, "
+            f"impedance {z[i].real:.4g}{z[i].imag:+.4g}j ohm; a passive wire reflects at most |S| 1 (0 dB; up to "
+            f"{PASSIVE_S_MAX:g} is taken for the analyser's calibration error), its resistance is not negative: check "
+            "the option line's parameter and format (S or Z; RI, MA or DB) and R"
+        )
+    bad = np.flatnonzero(z == 0)
+    if bad.size:
+        raise SweepError(
+            f"{where(int(bad[0]))}: impedance 0 ohm; a wire at its feed never reads a dead short: "
+            "check the analyser's connection and the file's format"
+        )
 
 
 def _is_number(word: str) -> bool:
