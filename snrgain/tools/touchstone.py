@@ -48,6 +48,25 @@ missing).  The lowest: more than 0 Hz."""
 PASSIVE_S_MAX = 1.05
 """The largest reflection |S| a sweep's point may have [-]: a passive wire reflects at most 1 (its resistance is not
 negative); the 0.05 allows an analyser's calibration error (a few hundredths on an open, common practice)."""
+WIRE_Z0_RANGE_OHM = (30.0, 1000.0)
+"""The |Z0| of a wire over ground [ohm]; a sweep's outside this is warned of.  A wire of diameter d at height h over
+a perfect ground has 60 ln(4h/d) (the standard image result): 340 to 740 ohm for 0.3 to 30 m and 4 to 0.5 mm; over
+a real ground the image lies deeper and |Z0| is higher.  The trade's Beverages read 400-600 ohm (common practice);
+a BOG on wet soil or buried lower.  The project's line model gives 47-790 ohm over its families (Beverage up to
+30 m, BOG on, above or in the soil), gauges 10-24 and grounds from sea water to very dry ground at 0.15-30 MHz
+(computed for this bound); the range is that with a margin."""
+WIRE_Z0_MAX_OHM = 2000.0
+"""A |Z0| over this [ohm] is refused: more than twice the most the line model gives any wire, the most a scenario's
+measured ``z0`` takes, and so a suggested termination (|Z0| less the far rod) within the 5000 ohm a wire's
+termination takes.  The usual cause is a Touchstone v1 file of Z in ohms: v1 holds Z normalised to the option line's
+R (divided by it), so ohms read R times too large (Touchstone File Format Specification, IBIS Open Forum, version
+2.0 (2009): v1 data normalised to R, v2's Z in ohms; cited from memory)."""
+FORMAT_HINT = (
+    "check the file's option line (# <unit> <parameter> <format> R <ohm>: R the reference resistance, e.g. R 50) "
+    "and the form of its values: a Touchstone v1 file holds Z normalised to R (ohms divided by R), a [Version] 2.0 "
+    "file holds Z in ohms; a file of ohms read as v1 gives R times too much, normalised values read as v2 R times "
+    "too little"
+)
 
 
 class SweepError(ValueError):
@@ -309,6 +328,17 @@ def analyse(sweep: Sweep, *, length_m: float, far_end: str) -> SweepResult:
             ratios.append((np.arctanh(np.sqrt(min(lo / zs[i], 0.999999))), ext[i][0]))
     if prods:
         res.z0_magnitude_ohm = float(np.median(prods))
+    if res.z0_magnitude_ohm is not None:
+        problem = wire_z0_problem(res.z0_magnitude_ohm)
+        if problem is not None and problem[0] == "refuse":
+            raise SweepError(
+                f"{sweep.label}: the sweep's extremes give {problem[1]}: the file's format or units are likely "
+                f"wrong: {FORMAT_HINT}"
+            )
+        if problem is not None:
+            res.warnings.append(
+                f"the sweep's extremes give {problem[1]}: the file's format or units may be wrong: {FORMAT_HINT}"
+            )
     if ratios:
         al = float(np.median([r[0] for r in ratios]))
         res.attenuation_db_per_100m = 100.0 * al / length_m * 20.0 / np.log(10.0)
@@ -332,6 +362,26 @@ def analyse(sweep: Sweep, *, length_m: float, far_end: str) -> SweepResult:
             "wrong?"
         )
     return res
+
+
+def wire_z0_problem(z0_ohm: float) -> tuple[str, str] | None:
+    """("refuse", why) for a |Z0| no wire over ground has (over :data:`WIRE_Z0_MAX_OHM`), ("warn", why) for one
+    outside :data:`WIRE_Z0_RANGE_OHM`, else None."""
+    lo, hi = WIRE_Z0_RANGE_OHM
+    span = f"{lo:g}-{hi:g} ohm"
+    if not z0_ohm <= WIRE_Z0_MAX_OHM:
+        return (
+            "refuse",
+            f"|Z0| {z0_ohm:.0f} ohm, more than any wire over ground has ({span}; over {WIRE_Z0_MAX_OHM:g} is refused)",
+        )
+    if z0_ohm > hi:
+        return "warn", f"|Z0| {z0_ohm:.0f} ohm, more than a wire over ground has ({span})"
+    if z0_ohm < lo:
+        return (
+            "warn",
+            f"|Z0| {z0_ohm:.0f} ohm, less than a wire over ground has ({span}, one on wet soil or buried too)",
+        )
+    return None
 
 
 def write_s1p(path: str | Path, freq_hz, z_ohm, *, z_ref: float = 50.0) -> None:
