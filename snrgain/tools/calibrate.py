@@ -728,8 +728,8 @@ frequencies: the line model's synthesised pairs agree within 1 % (tests); a real
 practice)."""
 SWEEPS_Z0_MAX_RATIO = 3.0
 """Sweeps whose |Z0| differ by more than this factor are refused: more than one wire's |Z0| on one ground changes over
-all of 0.15-30 MHz (the line model: at most about 2.1, a BOG on moist loam, computed for this bound), so a file is
-read wrong (a Touchstone v1/v2 slip is a factor R, 50 or 75) or was taken of something else."""
+all of 0.15-30 MHz (the line model, closed form: at most about 2.1, a BOG on moist loam, computed for this bound), so
+a file is read wrong (a Touchstone v1/v2 slip is a factor R, 50 or 75) or was taken of something else."""
 
 
 def check_sweeps_agree(swept: list, *, termination_from_sweeps: bool = True) -> list[str]:

@@ -54,7 +54,7 @@ a perfect ground has 60 ln(4h/d) (the standard image result): 340 to 740 ohm for
 a real ground the image lies deeper and |Z0| is higher.  The trade's Beverages read 400-600 ohm (common practice);
 a BOG on wet soil or buried lower.  The project's line model gives 47-790 ohm over its families (Beverage up to
 30 m, BOG on, above or in the soil), gauges 10-24 and grounds from sea water to very dry ground at 0.15-30 MHz
-(computed for this bound); the range is that with a margin."""
+(computed for this bound with the closed form); the range is that with a margin."""
 WIRE_Z0_MAX_OHM = 2000.0
 """A |Z0| over this [ohm] is refused: more than twice the most the line model gives any wire, the most a scenario's
 measured ``z0`` takes, and so a suggested termination (|Z0| less the far rod) within the 5000 ohm a wire's
