@@ -141,6 +141,7 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
             )
         lines_out.append(" ".join(parts))
         lines_out += [f"    warning: {w}" for w in sw.warnings]
+    lines_out += [f"  warning: {w}" for w in res.warnings]
     g = out["fitted_ground"]
     if g["permittivity_fixed"]:
         eps_txt = f"{g['permittivity']:.3g} (fixed)"

@@ -583,6 +583,8 @@ class Calibration:
     branch: tuple[float, str] | None = None
     """The velocity factor near which the open/short readings' phase branch was taken, and where it came from
     (:func:`expected_branch`); None without open/short readings."""
+    warnings: list[str] = field(default_factory=list)
+    """What the readings as a whole leave in doubt: sweeps that disagree on |Z0|, an open/short Z0 a wire seldom has."""
 
     def as_dict(self) -> dict:
         """JSON-ready (SI units in the keys)."""
@@ -613,6 +615,7 @@ class Calibration:
             out["suggested_turns_ratio"] = self.suggested_turns_ratio
         if self.sweeps:
             out["sweeps"] = [sw.as_dict() for sw in self.sweeps]
+        out["warnings"] = list(self.warnings)
         if self.height_fit is not None:
             h = self.height_fit
             out["fitted_height"] = {
@@ -673,7 +676,9 @@ def calibrate(
         vf = vf_from_quarter_wave(ant.length_m, f)
         resonances.append({"freq_hz": f, "velocity_factor": vf})
         measured.append({"freq_hz": f, "velocity_factor": vf})
+    said = check_open_short_z0(constants)
     swept = sweep_readings(readings.sweeps, ant.length_m)
+    said += check_sweeps_agree(swept, termination_from_sweeps=not constants)
     for sw in swept:
         measured += [
             {"freq_hz": e["freq_hz"], "velocity_factor": e["velocity_factor"]} for e in _spread_pick(sw.extremes)
@@ -712,7 +717,72 @@ def calibrate(
         readings.ground_source,
         readings.ground_source_text,
         branch=(expected_velocity_factor, branch_from) if constants else None,
+        warnings=said,
     )
+
+
+SWEEPS_Z0_WARN_RATIO = 1.25
+"""Sweeps whose |Z0| differ by more than this factor are warned of.  An open and a shorted sweep of one wire over one
+span put their extremes among each other, so each |Z0| (the median over its extremes) is the wire's over the same
+frequencies: the line model's synthesised pairs agree within 1 % (tests); a real pair within a few per cent (common
+practice)."""
+SWEEPS_Z0_MAX_RATIO = 3.0
+"""Sweeps whose |Z0| differ by more than this factor are refused: more than one wire's |Z0| on one ground changes over
+all of 0.15-30 MHz (the line model, closed form: at most about 2.1, a BOG on moist loam, computed for this bound), so
+a file is read wrong (a Touchstone v1/v2 slip is a factor R, 50 or 75) or was taken of something else."""
+
+
+def check_sweeps_agree(swept: list, *, termination_from_sweeps: bool = True) -> list[str]:
+    """Warnings (empty when none) if the sweeps' |Z0| differ by more than :data:`SWEEPS_Z0_WARN_RATIO`; ReadingError
+    beyond :data:`SWEEPS_Z0_MAX_RATIO`.  Each sweep is named with its |Z0| and the span of its extremes;
+    ``termination_from_sweeps``: the suggested termination takes their median (no open/short readings given)."""
+    from snrgain.tools.touchstone import FORMAT_HINT
+
+    have = sorted((sw for sw in swept if sw.z0_magnitude_ohm is not None), key=lambda sw: sw.z0_magnitude_ohm)
+    if len(have) < 2:
+        return []
+    lo, hi = have[0].z0_magnitude_ohm, have[-1].z0_magnitude_ohm
+    ratio = hi / lo
+    if ratio <= SWEEPS_Z0_WARN_RATIO:
+        return []
+    each = ", ".join(f"{Path(sw.label).name} (far end {sw.far_end}) {_z0_and_span(sw)}" for sw in have)
+    said = f"the sweeps disagree on |Z0|: {each}, a factor {ratio:.3g}"
+    if ratio > SWEEPS_Z0_MAX_RATIO:
+        raise ReadingError(
+            f"{said}, more than {SWEEPS_Z0_MAX_RATIO:g}: one wire's |Z0| changes less than that over all of "
+            f"0.15-30 MHz, so a file is read wrong or was taken of something else; for each file, {FORMAT_HINT}"
+        )
+    median = float(np.median([sw.z0_magnitude_ohm for sw in have]))
+    used = f"; the termination below takes their median, {median:.0f} ohm" if termination_from_sweeps else ""
+    return [
+        f"{said} (two sweeps of one wire over one span agree within a few per cent, within "
+        f"{SWEEPS_Z0_WARN_RATIO:g} is taken as agreeing): check that each was taken at the same wire's feed over the "
+        f"same frequencies, and each file's format{used}"
+    ]
+
+
+def _z0_and_span(sw) -> str:
+    fs = [e["freq_hz"] / 1e6 for e in sw.extremes]
+    span = f" over {min(fs):.3g}-{max(fs):.3g} MHz" if fs else ""
+    return f"{sw.z0_magnitude_ohm:.0f} ohm{span}"
+
+
+def check_open_short_z0(constants: list[lines.LineConstants]) -> list[str]:
+    """Warnings (empty when none) for open/short readings whose Z0 = sqrt(Zoc Zsc) a wire over ground seldom has;
+    ReadingError for one no wire over ground has (snrgain.tools.touchstone.wire_z0_problem)."""
+    from snrgain.tools.touchstone import wire_z0_problem
+
+    out = []
+    for ln in constants:
+        problem = wire_z0_problem(abs(ln.z0))
+        if problem is None:
+            continue
+        said = f"the open/short reading at {ln.freq_hz / 1e6:g} MHz gives, as sqrt(Zoc Zsc), {problem[1]}"
+        hint = "check that the readings are in ohms (not normalised to the analyser's 50 ohm) and taken at the feed"
+        if problem[0] == "refuse":
+            raise ReadingError(f"{said}: {hint}")
+        out.append(f"{said}: {hint}")
+    return out
 
 
 SWEEP_POINTS_FITTED = 6

@@ -26,6 +26,7 @@ warning reads (:data:`REACTANCE_SHARE_WARN`).
 
 from __future__ import annotations
 
+import re
 from dataclasses import field
 from pathlib import Path
 
@@ -40,6 +41,32 @@ REACTANCE_SHARE_WARN = 0.2
 feed reads about 0.03 in the tests; one metre of 50 ohm coax in between, 0.37)."""
 MAX_SWEEP_BYTES = 20_000_000
 """The largest Touchstone file read [bytes]."""
+SWEEP_MAX_FREQ_HZ = 300e6
+"""The highest frequency a sweep's point may have [Hz]: a decade above the tool's top (30 MHz).  A wire for the
+bands the tool covers is swept no higher; a point above is a unit's slip (Hz read as MHz, the option line's unit
+missing).  The lowest: more than 0 Hz."""
+PASSIVE_S_MAX = 1.05
+"""The largest reflection |S| a sweep's point may have [-]: a passive wire reflects at most 1 (its resistance is not
+negative); the 0.05 allows an analyser's calibration error (a few hundredths on an open, common practice)."""
+WIRE_Z0_RANGE_OHM = (30.0, 1000.0)
+"""The |Z0| of a wire over ground [ohm]; a sweep's outside this is warned of.  A wire of diameter d at height h over
+a perfect ground has 60 ln(4h/d) (the standard image result): 340 to 740 ohm for 0.3 to 30 m and 4 to 0.5 mm; over
+a real ground the image lies deeper and |Z0| is higher.  The trade's Beverages read 400-600 ohm (common practice);
+a BOG on wet soil or buried lower.  The project's line model gives 47-790 ohm over its families (Beverage up to
+30 m, BOG on, above or in the soil), gauges 10-24 and grounds from sea water to very dry ground at 0.15-30 MHz
+(computed for this bound with the closed form); the range is that with a margin."""
+WIRE_Z0_MAX_OHM = 2000.0
+"""A |Z0| over this [ohm] is refused: more than twice the most the line model gives any wire, the most a scenario's
+measured ``z0`` takes, and so a suggested termination (|Z0| less the far rod) within the 5000 ohm a wire's
+termination takes.  The usual cause is a Touchstone v1 file of Z in ohms: v1 holds Z normalised to the option line's
+R (divided by it), so ohms read R times too large (Touchstone File Format Specification, IBIS Open Forum, version
+2.0 (2009): v1 data normalised to R, v2's Z in ohms; cited from memory)."""
+FORMAT_HINT = (
+    "check the file's option line (# <unit> <parameter> <format> R <ohm>: R the reference resistance, e.g. R 50) "
+    "and the form of its values: a Touchstone v1 file holds Z normalised to R (ohms divided by R), a [Version] 2.0 "
+    "file holds Z in ohms; a file of ohms read as v1 gives R times too much, normalised values read as v2 R times "
+    "too little"
+)
 
 
 class SweepError(ValueError):
@@ -67,6 +94,8 @@ def read_sweep(path: str | Path) -> Sweep:
         raw = read_limited(p, limit_bytes=MAX_SWEEP_BYTES, what="sweep")
     except InputFileError as exc:
         raise SweepError(str(exc)) from None
+    text = raw.decode("utf-8", errors="replace")
+    _check_reference(p, text)
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # scikit-rf warns of frequencies out of order; they are sorted below
@@ -74,13 +103,16 @@ def read_sweep(path: str | Path) -> Sweep:
             if net.nports == 1:
                 f = np.asarray(net.f, dtype=float)
                 z = np.asarray(net.z[:, 0, 0], dtype=complex)
+                s = np.asarray(net.s[:, 0, 0], dtype=complex)
     except Exception as exc:  # noqa: BLE001 - scikit-rf raises many kinds for a file it cannot read
         raise SweepError(_line_at_fault(p, raw) or f"{p}: not a Touchstone file scikit-rf can read ({exc})") from None
     if net.nports != 1:
         raise SweepError(f"{p}: a 1-port sweep (.s1p) is needed; this file has {net.nports} ports")
-    ok = np.isfinite(f) & np.isfinite(z)
+    ok = np.isfinite(f) & np.isfinite(s) & np.isfinite(z)
     if not ok.all():
         raise SweepError(_line_at_fault(p, raw) or f"{p}: {int((~ok).sum())} points are not finite numbers")
+    r_ohm = np.real(np.ravel(net.z0))
+    _check_points(p, _data_lines(text), f, s, z, float(r_ohm[0]) if r_ohm.size else float("nan"))
     if ok.sum() < 5:
         raise SweepError(f"{p}: fewer than 5 points (a sweep across the wire's resonances needs more)")
     order = np.argsort(f, kind="stable")
@@ -95,11 +127,7 @@ def _line_at_fault(p: Path, raw: bytes) -> str | None:
     """'FILE line N: ...' for the first data line of a Touchstone 1-port file that is not three finite numbers
     (frequency and one complex value), else None.  Comments (``!``), the option line (``#``) and Touchstone 2's
     keyword lines (``[...]``) are passed over."""
-    text = raw.decode("utf-8", errors="replace")
-    for number, line in enumerate(text.splitlines(), start=1):
-        data = line.split("!", 1)[0].strip()
-        if not data or data.startswith(("#", "[")):
-            continue
+    for number, data in _data_lines(raw.decode("utf-8", errors="replace")):
         words = data.split()
         try:
             values = [float(w) for w in words]
@@ -111,6 +139,86 @@ def _line_at_fault(p: Path, raw: bytes) -> str | None:
         if not np.all(np.isfinite(values)):
             return f"{p} line {number}: {data!r} holds a value that is not a finite number"
     return None
+
+
+def _lines(text: str) -> list[str]:
+    """The file's lines as a reader opening it as text splits them (at LF, CR LF or a lone CR)."""
+    return re.split(r"\r\n|\r|\n", text)
+
+
+def _data_lines(text: str) -> list[tuple[int, str]]:
+    """(line number, text without its comment) of each data line: comments (``!``), the option line (``#``) and
+    Touchstone 2's keyword lines (``[...]``) passed over.  A 1-port point takes one line."""
+    out = []
+    for number, line in enumerate(_lines(text), start=1):
+        data = line.split("!", 1)[0].strip()
+        if data and not data.startswith(("#", "[")):
+            out.append((number, data))
+    return out
+
+
+def _check_reference(p: Path, text: str) -> None:
+    """SweepError naming the line unless every reference resistance the file gives (the option line's ``R``,
+    Touchstone 2's ``[Reference]``) is a number more than 0 ohm (scikit-rf turned R 0 into NaN and R -50 into
+    infinities, and reported neither)."""
+    for number, line in enumerate(_lines(text), start=1):
+        data = line.split("!", 1)[0].strip()
+        words = data.split()
+        if data.startswith("#"):
+            upper = [w.upper() for w in data[1:].split()]
+            if "R" not in upper:
+                continue
+            i = upper.index("R")
+            values = data[1:].split()[i + 1 : i + 2] or ["(none)"]
+        elif data.lower().startswith("[reference]"):
+            values = words[1:]
+        else:
+            continue
+        for v in values:
+            try:
+                ok = float(v) > 0 and np.isfinite(float(v))
+            except ValueError:
+                ok = False
+            if not ok:
+                raise SweepError(
+                    f"{p} line {number}: reference resistance {v} ohm ({data!r}): the reference resistance must be "
+                    "more than 0 ohm (the analyser's, usually R 50)"
+                )
+
+
+def _check_points(p: Path, data: list[tuple[int, str]], f, s, z, r_ohm: float) -> None:
+    """SweepError naming the line, the value and the range allowed for the first point whose frequency is not in
+    (0, :data:`SWEEP_MAX_FREQ_HZ`], whose reflection |S| is over :data:`PASSIVE_S_MAX` (not a passive load), or whose
+    impedance is 0 ohm (not a wire at its feed)."""
+
+    def where(i: int) -> str:
+        if len(data) == len(f):
+            return f"{p} line {data[i][0]} ({data[i][1]!r})"
+        return f"{p} point {i + 1}"
+
+    bad = np.flatnonzero(~((f > 0) & (f <= SWEEP_MAX_FREQ_HZ)))
+    if bad.size:
+        i = int(bad[0])
+        raise SweepError(
+            f"{where(i)}: frequency {f[i] / 1e6:g} MHz; a sweep's points lie above 0 Hz and at most "
+            f"{SWEEP_MAX_FREQ_HZ / 1e6:g} MHz: check the frequency column and its unit on the option line (# MHz ...)"
+        )
+    mag = np.abs(s)
+    bad = np.flatnonzero(mag > PASSIVE_S_MAX)
+    if bad.size:
+        i = int(bad[0])
+        raise SweepError(
+            f"{where(i)}: reflection |S| {mag[i]:.3g} ({20 * np.log10(mag[i]):+.1f} dB) against R {r_ohm:g} ohm, "
+            f"impedance {z[i].real:.4g}{z[i].imag:+.4g}j ohm; a passive wire reflects at most |S| 1 (0 dB; up to "
+            f"{PASSIVE_S_MAX:g} is taken for the analyser's calibration error), its resistance is not negative: check "
+            "the option line's parameter and format (S or Z; RI, MA or DB) and R"
+        )
+    bad = np.flatnonzero(z == 0)
+    if bad.size:
+        raise SweepError(
+            f"{where(int(bad[0]))}: impedance 0 ohm; a wire at its feed never reads a dead short: "
+            "check the analyser's connection and the file's format"
+        )
 
 
 def _is_number(word: str) -> bool:
@@ -220,6 +328,17 @@ def analyse(sweep: Sweep, *, length_m: float, far_end: str) -> SweepResult:
             ratios.append((np.arctanh(np.sqrt(min(lo / zs[i], 0.999999))), ext[i][0]))
     if prods:
         res.z0_magnitude_ohm = float(np.median(prods))
+    if res.z0_magnitude_ohm is not None:
+        problem = wire_z0_problem(res.z0_magnitude_ohm)
+        if problem is not None and problem[0] == "refuse":
+            raise SweepError(
+                f"{sweep.label}: the sweep's extremes give {problem[1]}: the file's format or units are likely "
+                f"wrong: {FORMAT_HINT}"
+            )
+        if problem is not None:
+            res.warnings.append(
+                f"the sweep's extremes give {problem[1]}: the file's format or units may be wrong: {FORMAT_HINT}"
+            )
     if ratios:
         al = float(np.median([r[0] for r in ratios]))
         res.attenuation_db_per_100m = 100.0 * al / length_m * 20.0 / np.log(10.0)
@@ -243,6 +362,26 @@ def analyse(sweep: Sweep, *, length_m: float, far_end: str) -> SweepResult:
             "wrong?"
         )
     return res
+
+
+def wire_z0_problem(z0_ohm: float) -> tuple[str, str] | None:
+    """("refuse", why) for a |Z0| no wire over ground has (over :data:`WIRE_Z0_MAX_OHM`), ("warn", why) for one
+    outside :data:`WIRE_Z0_RANGE_OHM`, else None."""
+    lo, hi = WIRE_Z0_RANGE_OHM
+    span = f"{lo:g}-{hi:g} ohm"
+    if not z0_ohm <= WIRE_Z0_MAX_OHM:
+        return (
+            "refuse",
+            f"|Z0| {z0_ohm:.0f} ohm, more than any wire over ground has ({span}; over {WIRE_Z0_MAX_OHM:g} is refused)",
+        )
+    if z0_ohm > hi:
+        return "warn", f"|Z0| {z0_ohm:.0f} ohm, more than a wire over ground has ({span})"
+    if z0_ohm < lo:
+        return (
+            "warn",
+            f"|Z0| {z0_ohm:.0f} ohm, less than a wire over ground has ({span}, one on wet soil or buried too)",
+        )
+    return None
 
 
 def write_s1p(path: str | Path, freq_hz, z_ohm, *, z_ref: float = 50.0) -> None:
