@@ -1,0 +1,57 @@
+"""Messages of inputs a hostile or careless user tried: each names the field (with the antenna, band or file it
+belongs to), the value and what is allowed, once."""
+
+import pytest
+
+from snrgain.errors import ScenarioError
+from snrgain.scenario import load
+from tests.conftest import MINIMAL
+
+
+def _problems(text: str) -> list[tuple[str, str]]:
+    with pytest.raises(ScenarioError) as err:
+        load(text)
+    return err.value.problems
+
+
+PAIR = '\n[[candidate]]\nname = "pair"\nfamily = "phased-verticals"\nheight = "6 m"\nbearing = 45\n'
+ARRAY = (
+    '\n[[candidate]]\nname = "arr"\nfamily = "array"\nbearing = 45\n'
+    'elements = [{{ family = "vertical", height = "6 m", position = [0, 0]{a} }}, '
+    '{{ family = "vertical", height = "6 m", position = {p}{a} }}]\n'
+)
+
+
+@pytest.mark.parametrize(
+    "candidate, field, words",
+    [
+        (PAIR + "positions = [[150, 150], [150, 150]]\n", 'candidate 2 ("pair").positions', "same point (150, 150)"),
+        (
+            PAIR + "positions = [[0, 0], [30, 0]]\nsteering = 'given'\ndelays = ['0 ns', '10 ns']\n"
+            "amplitudes = [0, 0]\n",
+            'candidate 2 ("pair").amplitudes',
+            "every element's amplitude is zero",
+        ),
+        (ARRAY.format(p="[0, 0.001]", a=""), 'candidate 2 ("arr").elements', "same point (0, 0)"),
+        (
+            ARRAY.format(p="[20, 0]", a=", amplitude = 0").replace("bearing = 45", "bearing = 45\nsteering = 'given'"),
+            'candidate 2 ("arr").amplitudes',
+            "amplitude is zero",
+        ),
+    ],
+)
+def test_an_arrays_own_problems_name_the_candidate(candidate, field, words):
+    problems = _problems(MINIMAL + candidate)
+    assert [(p, m) for p, m in problems if words in m] and all(p == field for p, m in problems if words in m), problems
+
+
+@pytest.mark.parametrize(
+    "weight, field",
+    [
+        (", delay = '5 ns'", 'candidate 2 ("arr").elements 2'),
+        (", amplitude = 500", 'candidate 2 ("arr").elements 2.amplitude'),
+    ],
+)
+def test_an_array_elements_problem_names_the_candidate_and_the_element_once(weight, field):
+    problems = _problems(MINIMAL + ARRAY.format(p="[20, 0]", a="").replace("[20, 0] }", f"[20, 0]{weight} }}"))
+    assert [p for p, _ in problems] == [field] and "elements 2" not in problems[0][1], problems
