@@ -55,3 +55,23 @@ def test_an_arrays_own_problems_name_the_candidate(candidate, field, words):
 def test_an_array_elements_problem_names_the_candidate_and_the_element_once(weight, field):
     problems = _problems(MINIMAL + ARRAY.format(p="[20, 0]", a="").replace("[20, 0] }", f"[20, 0]{weight} }}"))
     assert [p for p, _ in problems] == [field] and "elements 2" not in problems[0][1], problems
+
+
+@pytest.mark.parametrize(
+    "old, new, field",
+    [
+        ('ground = "moist loam"', 'ground = "moist loam"\nlot = [[-40, nan], [210, -40], [210, 280]]', "site.lot 1"),
+        ('height = "20 m"', 'height = "20 m"\nposition = [nan, 100]', "reference.position"),
+        ('family = "isotropic"', 'family = "beverage"\nlength = nan\nheight = "2 m"', 'candidate 1 ("iso").length'),
+        ('family = "isotropic"', 'family = "beverage"\nlength = inf\nheight = "2 m"', 'candidate 1 ("iso").length'),
+        ("latitude = 40.0", "latitude = nan", "site.latitude"),
+        ("bearing = 45", "bearing = nan", 'target 1 ("north-east").bearing'),
+        ("bearing = 45", "bearing = 45\nweight = nan", 'target 1 ("north-east").weight'),
+    ],
+)
+def test_nan_and_inf_are_refused_as_such_naming_the_field_and_value(old, new, field):
+    problems = dict(_problems(MINIMAL.replace(old, new, 1)))
+    msg = problems[field]
+    said = "infinite number" if "inf" in new else "NaN (not a number)"
+    assert f"{said} is not allowed" in msg and "ambiguous" not in msg and "within 10 km" not in msg, msg
+    assert msg.endswith("nan" if "nan" in new else "inf") or "nan]" in msg or "nan, 100]" in msg, msg
