@@ -75,3 +75,19 @@ def test_nan_and_inf_are_refused_as_such_naming_the_field_and_value(old, new, fi
     said = "infinite number" if "inf" in new else "NaN (not a number)"
     assert f"{said} is not allowed" in msg and "ambiguous" not in msg and "within 10 km" not in msg, msg
     assert msg.endswith("nan" if "nan" in new else "inf") or "nan]" in msg or "nan, 100]" in msg, msg
+
+
+@pytest.mark.parametrize(
+    "lot, why",
+    [
+        ("[[0, 0], [0, 0], [0, 0]]", "its 3 corners stand at only 1 point"),
+        ("[[0, 0], [50, 0], [0, 0], [50, 0]]", "its 4 corners stand at only 2 points"),
+        ("[[0, 0], [100, 0], [200, 0]]", "every corner lies on one line"),
+        ("[[-40, -40], [210, 280], [210, -40], [-40, 280]]", "its edges cross or touch at (85, 120) m"),
+    ],
+)
+def test_an_outline_that_is_no_polygon_is_said_in_the_plans_words(lot, why):
+    problems = _problems(MINIMAL.replace('ground = "moist loam"', f'ground = "moist loam"\nlot = {lot}'))
+    (path, msg), *_ = [(p, m) for p, m in problems if "lot" in m]
+    assert f"lot: the outline is not a simple polygon ({why}); list at least three corners" in msg, msg
+    assert "geometry" not in msg and "[0 0]" not in msg and "self-intersection" not in msg.lower(), msg
