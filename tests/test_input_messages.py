@@ -91,3 +91,45 @@ def test_an_outline_that_is_no_polygon_is_said_in_the_plans_words(lot, why):
     (path, msg), *_ = [(p, m) for p, m in problems if "lot" in m]
     assert f"lot: the outline is not a simple polygon ({why}); list at least three corners" in msg, msg
     assert "geometry" not in msg and "[0 0]" not in msg and "self-intersection" not in msg.lower(), msg
+
+
+# -- outputs that cannot be written --------------------------------------------------------------------------
+
+
+def _refusing(errno_, monkeypatch):
+    """tempfile.mkstemp and mkdtemp failing as a folder that refuses new files does (sysfs, a root-owned mount)."""
+    import os
+    import tempfile
+
+    def refuse(*args, prefix="", suffix="", dir=None, **kw):
+        raise OSError(errno_, os.strerror(errno_), os.path.join(dir, f"{prefix}abc{suffix}"))
+
+    monkeypatch.setattr(tempfile, "mkstemp", refuse)
+    monkeypatch.setattr(tempfile, "mkdtemp", refuse)
+
+
+@pytest.mark.parametrize("errno_, code", [(13, 2), (28, 1)])
+def test_an_output_that_cannot_be_written_names_the_path_given_not_the_temporary(tmp_path, monkeypatch, errno_, code):
+    import os
+
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    scenario = tmp_path / "s.toml"
+    scenario.write_text(MINIMAL, encoding="utf-8")
+    out = tmp_path / "x.json"
+    _refusing(errno_, monkeypatch)
+    res = CliRunner().invoke(cli, ["rank", str(scenario), "--format", "json", "-o", str(out)])
+    assert res.exit_code == code, res.output
+    assert f"cannot write {out} ({os.strerror(errno_)})" in res.stderr, res.stderr
+    assert ".snrgain-tmp" not in res.stderr and "Errno" not in res.stderr and "Traceback" not in res.output
+
+
+def test_a_figure_set_that_cannot_be_written_names_the_folder(tmp_path, monkeypatch):
+    from snrgain.files import OutputWriteError, write_set
+
+    _refusing(13, monkeypatch)
+    with pytest.raises(OutputWriteError, match=f"cannot write into the folder {tmp_path} \\(Permission denied\\)"):
+        write_set(tmp_path, {"a.png": lambda p: p.write_bytes(b"x")})
+    assert not list(tmp_path.iterdir())
