@@ -5,7 +5,7 @@ import pytest
 
 from snrgain.errors import ScenarioError
 from snrgain.scenario import load
-from tests.conftest import MINIMAL
+from tests.conftest import MINIMAL, REPO
 
 
 def _problems(text: str) -> list[tuple[str, str]]:
@@ -133,3 +133,56 @@ def test_a_figure_set_that_cannot_be_written_names_the_folder(tmp_path, monkeypa
     with pytest.raises(OutputWriteError, match=f"cannot write into the folder {tmp_path} \\(Permission denied\\)"):
         write_set(tmp_path, {"a.png": lambda p: p.write_bytes(b"x")})
     assert not list(tmp_path.iterdir())
+
+
+# -- several bands ----------------------------------------------------------------------------------------------
+
+BANDS = (REPO / "tests" / "data" / "sites" / "three-bands.toml").read_text()
+MONTHS_13 = BANDS.replace('frequency = "1.83 MHz"', 'frequency = "1.83 MHz"\nmonths = [13]')
+
+
+def _band_problems(text: str, command: str) -> list[tuple[str, str]]:
+    from snrgain.scenario import load_bands
+
+    with pytest.raises(ScenarioError) as err:
+        if command == "load_bands":
+            load_bands(text)
+        else:
+            load(text, band="80 m")
+    return err.value.problems
+
+
+def test_a_bands_months_are_said_once_as_the_bands():
+    assert _band_problems(MONTHS_13, "load_bands") == [('band "160 m": band.months', "months must be 1..12; got [13]")]
+
+
+def test_a_bands_own_problem_is_said_with_a_problem_across_the_bands():
+    text = MONTHS_13.replace('bands = ["80 m", "40 m"]', 'bands = ["20 m"]')
+    problems = _band_problems(text, "load_bands")
+    assert [p for p, _ in problems] == ["target 2.bands", 'band "160 m": band.months'], problems
+    assert _band_problems(text, "load") == problems  # --band asks for a band of a file that splits no more
+
+
+def test_a_problem_of_every_band_is_said_once_without_a_band():
+    text = MONTHS_13.replace('ground = "moist loam"', 'ground = "moist loam"\nlot = [[0, 0], [0, 0], [0, 0]]')
+    problems = _band_problems(text, "load_bands")
+    assert sorted(p for p, _ in problems) == ['band "160 m": band.months', "site"], problems
+
+
+@pytest.mark.parametrize("table", ["[band]", "[[band]]"])
+def test_a_bands_own_months_and_hours_win_over_the_time_tables(table):
+    text = MINIMAL.replace('bandwidth = "500 Hz"', 'bandwidth = "500 Hz"\nmonths = [7, 8]\nutc_hours = [22]')
+    if table == "[[band]]":
+        text = text.replace("[band]", '[[band]]\nname = "x"')
+    sc = load(text, band="x" if table == "[[band]]" else None)
+    assert sc.times.months == (7, 8) and sc.times.utc_hours == (22.0,)
+
+
+def test_a_copy_for_logged_times_takes_the_logs_times_not_the_bands():
+    import tomllib
+
+    from snrgain.tools.verify import scenario_copy
+
+    data = tomllib.loads(MINIMAL.replace('bandwidth = "500 Hz"', 'bandwidth = "500 Hz"\nmonths = [7]\nutc_hours = [9]'))
+    sc = load(scenario_copy(data, "reference", "iso", [3], [5.0]))
+    assert sc.times.months == (3,) and sc.times.utc_hours == (5.0,)
