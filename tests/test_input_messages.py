@@ -186,3 +186,27 @@ def test_a_copy_for_logged_times_takes_the_logs_times_not_the_bands():
     data = tomllib.loads(MINIMAL.replace('bandwidth = "500 Hz"', 'bandwidth = "500 Hz"\nmonths = [7]\nutc_hours = [9]'))
     sc = load(scenario_copy(data, "reference", "iso", [3], [5.0]))
     assert sc.times.months == (3,) and sc.times.utc_hours == (5.0,)
+
+
+# -- snrgain noise below P.372's man-made range ----------------------------------------------------------------
+
+
+@pytest.mark.parametrize("freq, environment, warned", [("0.1 MHz", "residential", True), ("0.5 MHz", "rural", False)])
+def test_noise_warns_as_rank_does_where_the_man_made_line_is_extrapolated(freq, environment, warned):
+    import json
+
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+    from snrgain.decide.decisions import man_made_extrapolated
+    from snrgain.outputs.messages import notice_text
+
+    args = ["noise", "--lat", "41.6", "--lon", "-72.35", "--month", "7", "--frequency", freq]
+    res = CliRunner().invoke(cli, [*args, "--environment", environment, "--format", "json", "--no-galactic"])
+    assert res.exit_code == 0, res.output
+    said = [notice_text(n) for n in man_made_extrapolated(float(freq.split()[0]) * 1e6, True)]
+    if warned:
+        assert said and said[0].endswith(f"at {freq} its line is extrapolated")  # rank's own sentence
+        assert f"warning: {said[0]}" in res.stderr and json.loads(res.stdout)["warnings"] == said
+    else:
+        assert "warning" not in res.stderr and json.loads(res.stdout)["warnings"] == []
