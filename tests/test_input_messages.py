@@ -1,6 +1,7 @@
 """Messages of inputs a hostile or careless user tried: each names the field (with the antenna, band or file it
 belongs to), the value and what is allowed, once."""
 
+import numpy as np
 import pytest
 
 from snrgain.errors import ScenarioError
@@ -210,3 +211,41 @@ def test_noise_warns_as_rank_does_where_the_man_made_line_is_extrapolated(freq, 
         assert f"warning: {said[0]}" in res.stderr and json.loads(res.stdout)["warnings"] == said
     else:
         assert "warning" not in res.stderr and json.loads(res.stdout)["warnings"] == []
+
+
+# -- pattern tables ----------------------------------------------------------------------------------------------
+
+
+def _table(path, columns: str) -> str:
+    rows = [f"{az},{el}" + ",-3" * (columns.count(",") - 1) for az in range(0, 360, 90) for el in (0, 45, 90)]
+    path.write_text("\n".join([columns, *rows]) + "\n")
+    return str(path)
+
+
+@pytest.mark.parametrize(
+    "columns, words",
+    [
+        ("azimuth_deg,elevation_deg,gain_dbi,gain_v_dbi", "columns 'gain_dbi' and 'gain_v_dbi' together"),
+        ("azimuth_deg,elevation_deg,gain_h_dbi,gain_dbi", "columns 'gain_dbi' and 'gain_h_dbi' together"),
+        ("azimuth_deg,elevation_deg,gain_dbi,gain_dbi", "column(s) ['gain_dbi'] named twice"),
+    ],
+)
+def test_a_pattern_table_whose_columns_would_leave_one_unread_is_refused(tmp_path, columns, words):
+    from snrgain.antennas import from_spec
+    from snrgain.errors import SpecError
+
+    path = _table(tmp_path / "p.csv", columns)
+    with pytest.raises(SpecError) as err:
+        from_spec({"family": "tabulated", "file": path})
+    assert f"{path}, line 1: {words}" in str(err.value), err.value
+
+
+@pytest.mark.parametrize(
+    "columns", ["azimuth_deg,elevation_deg,gain_dbi", "azimuth_deg,elevation_deg,gain_v_dbi,gain_h_dbi,gain_dbi"]
+)
+def test_the_total_alone_or_with_both_partials_is_read(tmp_path, columns):
+    from snrgain.antennas import from_spec
+
+    a = from_spec({"family": "tabulated", "file": _table(tmp_path / "p.csv", columns)})
+    total = -3 if columns.count(",") == 2 else -3 + 10 * np.log10(2)
+    assert a.gain_dbi(1.83e6, 45.0, 30.0) == pytest.approx(total, abs=1e-9)
