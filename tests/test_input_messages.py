@@ -1,6 +1,8 @@
 """Messages of inputs a hostile or careless user tried: each names the field (with the antenna, band or file it
 belongs to), the value and what is allowed, once."""
 
+import re
+
 import numpy as np
 import pytest
 
@@ -249,3 +251,60 @@ def test_the_total_alone_or_with_both_partials_is_read(tmp_path, columns):
     a = from_spec({"family": "tabulated", "file": _table(tmp_path / "p.csv", columns)})
     total = -3 if columns.count(",") == 2 else -3 + 10 * np.log10(2)
     assert a.gain_dbi(1.83e6, 45.0, 30.0) == pytest.approx(total, abs=1e-9)
+
+
+# -- sweep's --vary ----------------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    "values, expected",
+    [
+        ("[0, 40]", [[0, 40]]),
+        ("[0, 40], [30.5, -40]", [[0, 40], [30.5, -40]]),
+        ('["12 m", "-30 ft"], [1, 2]', [["12 m", "-30 ft"], [1, 2]]),
+    ],
+)
+def test_vary_keeps_a_bracketed_value_whole(values, expected):
+    from snrgain.tools import sweep
+
+    assert sweep.parse_vary(f"whip: position = {values}").values == expected
+
+
+@pytest.mark.parametrize(
+    "values, words",
+    [("[0, 40", "is not closed"), ("0, 40]", "closes no '['"), ("[12 m, 3 m]", "cannot read '[12 m, 3 m]' as a list")],
+)
+def test_vary_says_what_is_wrong_with_a_bracketed_value(values, words):
+    from snrgain.tools import sweep
+
+    with pytest.raises(sweep.VaryError, match=re.escape(words)):
+        sweep.parse_vary(f"whip: position = {values}")
+
+
+def test_a_vary_sweep_over_positions_runs_one_design_per_position(tmp_path):
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    scenario = tmp_path / "s.toml"
+    scenario.write_text(
+        MINIMAL.replace('height = "20 m"', 'height = "20 m"\nposition = [0, 0]')
+        + '\n[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "6 m"\nposition = [50, 0]\n',
+        encoding="utf-8",
+    )
+    out = tmp_path / "o.csv"
+    vary = "whip: position = [0, 40], [30, 40]"
+    res = CliRunner().invoke(cli, ["sweep", str(scenario), "--vary", vary, "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    rows = [r for r in out.read_text().splitlines()[1:] if ",whip," in r]
+    assert [r.split(",whip,")[0].split(",", 1)[1] for r in rows] == ['"[0, 40]"', '"[30, 40]"']
+
+
+def test_a_fine_range_keeps_every_value_distinct_or_is_refused():
+    from snrgain.tools import sweep
+
+    v = sweep.parse_vary("Bev: length = 100 m to 100.5 m by 0.0001 m")
+    assert len(v.values) == 5001 == len(set(v.values)) == len(set(v.column_values))
+    assert v.values[1] == "100.0001 m" and v.values[-1] == "100.5 m"
+    with pytest.raises(sweep.VaryError, match=r"the step 1e-13 m is finer than the values are kept at"):
+        sweep.parse_vary("Bev: length = 0 m to 1e-9 m by 1e-13 m")
