@@ -308,3 +308,33 @@ def test_a_fine_range_keeps_every_value_distinct_or_is_refused():
     assert v.values[1] == "100.0001 m" and v.values[-1] == "100.5 m"
     with pytest.raises(sweep.VaryError, match=r"the step 1e-13 m is finer than the values are kept at"):
         sweep.parse_vary("Bev: length = 0 m to 1e-9 m by 1e-13 m")
+
+
+# -- verify's logs -----------------------------------------------------------------------------------------------
+
+VERIFY_SCENARIO = MINIMAL.replace('family = "isotropic"', 'family = "vertical"\nheight = "6 m"')
+
+
+@pytest.mark.parametrize(
+    "content, words",
+    [
+        (bytes(range(256)) * 8, "not a text log (a NUL byte at character 1)"),
+        (bytes(range(128, 256)) * 16 + b"\n", "not a text log (2,048 of its 2,049 characters not UTF-8)"),
+        (b"hello world\nthis is no log\n", "none of its 2 lines reads as a decode (too few fields"),
+    ],
+)
+def test_verify_refuses_a_log_that_is_not_one_naming_the_file(tmp_path, content, words):
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    scenario = tmp_path / "s.toml"
+    scenario.write_text(VERIFY_SCENARIO, encoding="utf-8")
+    good = tmp_path / "a.txt"
+    good.write_text(CliRunner().invoke(cli, ["verify", "--example", "log"]).stdout, encoding="utf-8")
+    bad = tmp_path / "b.bin"
+    bad.write_bytes(content)
+    args = ["verify", str(scenario), "--log-a", str(good), "--log-b", str(bad), "--a", "reference", "--b", "iso"]
+    res = CliRunner().invoke(cli, args)
+    assert res.exit_code == 2, res.output
+    assert f"{bad} (log B): {words}" in res.stderr and "Traceback" not in res.output, res.stderr
