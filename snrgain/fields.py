@@ -28,7 +28,7 @@ from pydantic import (
 
 from snrgain.physics import ground as groundmod
 from snrgain.physics import lines
-from snrgain.problems import toml_repr
+from snrgain.problems import not_finite, toml_repr
 from snrgain.units import DIMENSIONS, parse_attenuation_db_per_100m, parse_db, parse_power_dbm, parse_quantity
 
 SI_CONTEXT = {"si": True}
@@ -66,8 +66,8 @@ def quantity(dimension: str, *, gt=None, ge=None, lt=None, le=None):
     def check(value, info: ValidationInfo):
         if _si(info) and isinstance(value, (int, float)) and not isinstance(value, bool):
             x = float(value)
-            if not np.isfinite(x):
-                raise ValueError(f"expected a finite {dimension}, got {toml_repr(value)}")
+            if bad := not_finite(x):
+                raise ValueError(f"{bad}; give a finite {dimension}; got {toml_repr(value)}")
         else:
             x = parse_quantity(value, dimension)
         ok = (gt is None or x > gt) and (ge is None or x >= ge) and (lt is None or x < lt) and (le is None or x <= le)
@@ -119,6 +119,8 @@ def _degrees_number(lo, hi, what):
     def check(value):
         if isinstance(value, bool) or not isinstance(value, (int, float, str)):
             raise ValueError(f"expected {what} in degrees, got {toml_repr(value)}")
+        if bad := not_finite(value):
+            raise ValueError(f"{bad}; give {what} in degrees; got {toml_repr(value)}")
         x = np.degrees(parse_quantity(value, "angle"))
         if not (lo <= x <= hi):
             raise ValueError(f"must be between {lo:g} and {hi:g} degrees; got {toml_repr(value)}")
@@ -304,6 +306,8 @@ def lengths(value, n: int, *, what: str, example: str, limit_m: float) -> tuple[
     for v in value:
         if isinstance(v, bool):
             raise ValueError(f"expected a length, got {toml_repr(v)}")
+        if bad := not_finite(v):
+            raise ValueError(f"{bad} in {what}; give {example} (bare numbers are metres); got {toml_repr(value)}")
         out.append(float(v) if isinstance(v, (int, float)) else parse_quantity(v, "length"))
     if not all(np.isfinite(out)) or max(abs(x) for x in out) > limit_m:
         raise ValueError(f"{what} must lie within {limit_m / 1e3:g} km of the origin; got {toml_repr(value)}")

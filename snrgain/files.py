@@ -15,6 +15,7 @@ runs (killed with SIGKILL, or the machine stopped) is removed the next time snrg
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import re
 import shutil
@@ -187,6 +188,25 @@ class OutputExistsError(FileExistsError):
         super().__init__(f"{self.path} exists; it was not replaced")
 
 
+class OutputWriteError(OSError):
+    """An output that could not be written (a folder the user cannot write, a full disk): the message names the
+    output the user gave and the reason, never the temporary file it was written through."""
+
+    def __init__(self, path: Path, exc: OSError, *, folder: bool = False):
+        self.path = Path(path)
+        where = f"into the folder {self.path}" if folder else str(self.path)
+        super().__init__(f"cannot write {where} ({exc.strerror or exc}); nothing was written")
+        self.refused = exc.errno in (errno.EACCES, errno.EPERM, errno.EROFS)
+        """The place refuses writing (the user's choice of output, an input error), not a failure such as a full
+        disk."""
+
+
+def _about_output(exc: OSError, paths) -> bool:
+    """Whether ``exc`` is about writing one of ``paths`` or a temporary beside them (not about some other file)."""
+    names = [n for n in (exc.filename, exc.filename2) if n is not None]
+    return all(Path(n) in paths or TMP_PREFIX in str(n) for n in names)
+
+
 def missing_folder(d: str | Path) -> FileNotFoundError:
     """The error for an output folder that does not exist: what to do about it (snrgain makes no folders)."""
     return FileNotFoundError(f"folder {d} does not exist; create it first (mkdir {d}) or name another")
@@ -256,10 +276,12 @@ def write_atomic(
             mode = 0o666 & ~mask
         os.chmod(tmp_path, mode)
         os.replace(tmp_path, p)
-    except BaseException:
+    except BaseException as exc:
         if tmp_path is not None:
             with _SignalsDeferred():  # a second signal must not cut the clean-up short
                 tmp_path.unlink(missing_ok=True)
+        if isinstance(exc, OSError) and not isinstance(exc, FileExistsError) and _about_output(exc, [p]):
+            raise OutputWriteError(p, exc) from None
         raise
     return p
 
@@ -278,6 +300,16 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
         raise missing_folder(d)
     targets = [check_writable(d / name, overwrite=overwrite) for name in writers]
     remove_stale(d)
+    try:
+        _write_set(d, writers, targets)
+    except OSError as exc:
+        if not isinstance(exc, FileExistsError) and _about_output(exc, [d, *targets]):
+            raise OutputWriteError(d, exc, folder=True) from None
+        raise
+    return targets
+
+
+def _write_set(d: Path, writers: dict[str, Callable[[Path], None]], targets: list[Path]) -> None:
     tmp_dir = None
     try:
         with _SignalsDeferred():  # no signal between making the folder and knowing to remove it
@@ -295,4 +327,3 @@ def write_set(folder: str | Path, writers: dict[str, Callable[[Path], None]], *,
         if tmp_dir is not None:
             with _SignalsDeferred():  # a signal must not cut the clean-up short
                 shutil.rmtree(tmp_dir, ignore_errors=True)
-    return targets

@@ -20,6 +20,7 @@ errors are about the value rather than its type), drops the labels, and words th
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 MISMATCH_TYPES = frozenset(
@@ -239,6 +240,14 @@ def _near_key(key: str) -> str | None:
     return got[0] if got else None
 
 
+def not_finite(value) -> str | None:
+    """What is wrong with a number TOML reads as ``nan`` or ``inf``, said the same for every field ("NaN (not a
+    number) is not allowed"; the caller adds what is allowed and the value); None for any other value."""
+    if not isinstance(value, float) or math.isfinite(value):
+        return None
+    return "NaN (not a number) is not allowed" if math.isnan(value) else "an infinite number is not allowed"
+
+
 def _message(err: dict) -> str:
     typ = err.get("type", "")
     ctx = err.get("ctx", {}) or {}
@@ -254,7 +263,7 @@ def _message(err: dict) -> str:
     if typ in ("value_error", "assertion_error"):
         return str(err.get("msg", "invalid")).removeprefix("Value error, ").removeprefix("Assertion failed, ")
     if typ == "finite_number":
-        return f"must be a finite number (not nan or inf){got}"
+        return f"{not_finite(err.get('input')) or 'must be a finite number'}; give a finite number{got}"
     bounds = {
         "greater_than": ("greater than", "gt"),
         "greater_than_equal": ("at least", "ge"),

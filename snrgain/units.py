@@ -32,7 +32,7 @@ import unicodedata
 
 import numpy as np
 
-from snrgain.problems import toml_repr
+from snrgain.problems import not_finite, toml_repr
 
 # Dimension name -> (SI unit, example for messages, are bare numbers allowed)
 DIMENSIONS: dict[str, tuple[str, str, bool]] = {
@@ -163,6 +163,9 @@ def parse_quantity(value, dimension: str) -> float:
     """
     si_unit, example, bare_ok = DIMENSIONS[dimension]
     _reject_non_text(value, dimension, example)
+    if bad := not_finite(value):
+        unit = "" if bare_ok else " with its unit"
+        raise QuantityError(f"{bad}; give the {dimension}{unit}, such as {example}; got {toml_repr(value)}")
     if isinstance(value, str):
         m = _QUANTITY.match(normalise_text(value, dimension))
         if m is None:
@@ -299,6 +302,8 @@ def parse_db(value) -> float:
             x = float(m.group(1))
         elif re.fullmatch(r"\s*" + _NUMBER + r"\s*", value):
             x = float(value)
+    if bad := not_finite(value):
+        raise QuantityError(f"{bad}; give a value in dB such as '12 dB'; got {toml_repr(value)}")
     if x is None:
         raise QuantityError(f"expected a value in dB such as '12 dB', got {toml_repr(value)}")
     if not np.isfinite(x):

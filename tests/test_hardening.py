@@ -169,7 +169,7 @@ def test_a_ground_range_is_still_read_from_a_toml_list():
         (MINIMAL + "\n[receiver]\nmargin_target = 1e9\n", "receiver.margin_target", "-20 and 60"),
         (MINIMAL + '\n[receiver]\nnoise_floor = "-9999 dBm"\n', "receiver.noise_floor", "-200 and +30 dBm"),
         (MINIMAL.replace("utc_hours = [3]", "utc_hours = [nan]"), "time.utc_hours 1", "finite"),
-        (MINIMAL.replace("latitude = 40.0", "latitude = nan"), "site.latitude", "finite"),
+        (MINIMAL.replace("latitude = 40.0", "latitude = nan"), "site.latitude", "NaN (not a number) is not allowed"),
     ],
 )
 def test_levels_and_numbers_outside_their_physical_range_are_refused(text, field, allowed):

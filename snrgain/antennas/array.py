@@ -177,9 +177,9 @@ def _si_or_parse(value, dimension: str, si: bool) -> float:
 
 def _number(value, what: str, where: str, lo: float, hi: float) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value):
-        raise ValueError(f"{where}.{what} must be a number; got {toml_repr(value)}")
+        raise SpecError([(f"{where}.{what}", f"must be a number; got {toml_repr(value)}")])
     if not lo <= value <= hi:
-        raise ValueError(f"{where}.{what} must lie between {lo:g} and {hi:g}; got {toml_repr(value)}")
+        raise SpecError([(f"{where}.{what}", f"must lie between {lo:g} and {hi:g}; got {toml_repr(value)}")])
     return float(value)
 
 
@@ -189,15 +189,17 @@ def _weights_from(entry: dict, where: str, *, si: bool = False):
     if "delay" in entry:
         delay = _si_or_parse(entry["delay"], "time", si)
         if abs(delay) > 1e-3:
-            raise ValueError(f"{where}.delay must lie within 1 ms; got {toml_repr(entry['delay'])}")
+            raise SpecError([(f"{where}.delay", f"must lie within 1 ms; got {toml_repr(entry['delay'])}")])
     if "delay_line" in entry:
         dl = entry["delay_line"]
         if not isinstance(dl, dict) or set(dl) - {"length", "velocity_factor"} or "length" not in dl:
-            raise ValueError(f"{where}.delay_line: give {{ length = '...', velocity_factor = 0.66 }}")
+            raise SpecError([(f"{where}.delay_line", "give { length = '...', velocity_factor = 0.66 }")])
         vf = _number(dl.get("velocity_factor", 0.66), "delay_line.velocity_factor", where, 0.05, 1.0)
         length = _si_or_parse(dl["length"], "length", si)
         if not 0 <= length <= 10e3:
-            raise ValueError(f"{where}.delay_line.length must lie between 0 and 10 km; got {toml_repr(dl['length'])}")
+            raise SpecError(
+                [(f"{where}.delay_line.length", f"must lie between 0 and 10 km; got {toml_repr(dl['length'])}")]
+            )
         delay += length / (vf * C_M_PER_S)
     phase = np.radians(_number(entry.get("phase", 0.0), "phase", where, -720.0, 720.0))
     amp = _number(entry.get("amplitude", 1.0), "amplitude", where, 0.0, 100.0)
@@ -231,9 +233,9 @@ class Array(Antenna):
             try:
                 el = build(spec, where, si=params._si)
                 if params.steering == "auto" and any(k in raw for k in ("delay", "delay_line", "phase")):
-                    raise ValueError(f"{where}: delays and phases are set by steering = 'auto'")
+                    raise ValueError("delays and phases are set by steering = 'auto'")
                 if "phase" in raw and params.phase_sense is None:
-                    raise ValueError(f"{where}: {PHASE_SENSE_NEEDED}")
+                    raise ValueError(PHASE_SENSE_NEEDED)
                 delay, phase, amp = _weights_from(raw, where, si=params._si)
                 self.weights.append((delay, -phase if params.phase_sense == "lead" else phase, amp))
                 line = raw.get("delay_line") if not {"delay", "phase"} & set(raw) else None  # a line alone
@@ -729,7 +731,10 @@ class PhasedVerticals(Array):
             },
             context=SI_CONTEXT,
         )
-        super().__init__(ap)
+        try:
+            super().__init__(ap)
+        except SpecError as exc:  # the elements are made from the positions the user gave
+            raise SpecError([("positions" if p == "elements" else p, m) for p, m in exc.problems]) from None
         self.params = params
 
     MAX_ELEMENT_WAVELENGTHS = 0.1

@@ -280,8 +280,10 @@ def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None, si: boo
         if freq_hz is not None:
             ant.check_frequency(freq_hz)
         return ant
-    except SpecError:
-        raise
+    except SpecError as exc:  # a family's own checks (an array's elements) name fields within the antenna
+        if not prefix:
+            raise
+        raise SpecError([(f"{prefix}.{p}" if p else prefix, m) for p, m in exc.problems]) from None
     except (ValueError, OSError) as exc:
         raise SpecError([(prefix, str(exc))]) from None
 

@@ -71,7 +71,16 @@ def read_pattern_csv(path: str | Path) -> dict[str, np.ndarray]:
     for need in ("azimuth_deg", "elevation_deg"):
         if need not in names:
             raise ValueError(f"{path}, line {header_no}: column {need!r} is missing")
-    if "gain_dbi" not in names and not {"gain_v_dbi", "gain_h_dbi"} <= set(names):
+    twice = sorted({n for n in names if names.count(n) > 1})
+    if twice:
+        raise ValueError(f"{path}, line {header_no}: column(s) {twice} named twice; give each column once")
+    partial = [n for n in ("gain_v_dbi", "gain_h_dbi") if n in names]
+    if "gain_dbi" in names and len(partial) == 1:  # one of the two would be ignored: the total, or the partial
+        raise ValueError(
+            f"{path}, line {header_no}: columns 'gain_dbi' and {partial[0]!r} together; give the total gain "
+            "('gain_dbi') or both partial gains ('gain_v_dbi' and 'gain_h_dbi'), not the total with one partial"
+        )
+    if "gain_dbi" not in names and len(partial) < 2:
         raise ValueError(f"{path}, line {header_no}: give 'gain_dbi' or both 'gain_v_dbi' and 'gain_h_dbi'")
     rows = []
     for line_no, ln in lines[1:]:

@@ -25,15 +25,16 @@ def check(scenario, p372_dir):
     names = band_names(scenario)
     if names:
         from snrgain.errors import ScenarioError
+        from snrgain.scenario.bands import band_problems
 
-        loaded, problems = [], []
+        loaded, found = [], {}
         for name in names:
             try:
                 loaded.append((name, load(scenario, p372_dir=p372_dir, band=name)))
             except ScenarioError as exc:
-                problems += [(f'band "{name}": {where}', why) for where, why in exc.problems]
-        if problems:
-            raise ScenarioError(str(scenario), problems)
+                found[name] = exc.problems
+        if found:
+            raise ScenarioError(str(scenario), band_problems(found, len(names)))
         for name, sc in loaded:
             click.echo(f"band {name!r}:")
             _summary(sc)

@@ -74,6 +74,12 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
         data = noise_over_day(
             lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
         )
+    from snrgain.decide.decisions import man_made_extrapolated
+    from snrgain.outputs.messages import notice_text
+
+    data["warnings"] = [notice_text(n) for n in man_made_extrapolated(f, environment != "none")]
+    for w in data["warnings"]:
+        click.echo(f"warning: {w}", err=True)
     if output is not None:
         write_output(output, json_text(data), overwrite=overwrite)
         return

@@ -16,7 +16,7 @@ from pathlib import Path
 import click
 
 from snrgain.errors import ReadingsError, ScenarioError, SpecError
-from snrgain.files import OutputExistsError
+from snrgain.files import OutputExistsError, OutputWriteError
 from snrgain.units import QuantityError
 
 EXIT_BAD_INPUT = 2
@@ -204,6 +204,8 @@ def handle_errors(fn):
             fail("interrupted; no output was left half-written", 130)
         except OutputExistsError as exc:
             fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
+        except OutputWriteError as exc:
+            fail(str(exc), EXIT_BAD_INPUT if exc.refused else EXIT_FAILURE)
         except ReadingsError as exc:
             n = len(exc.problems)
             fail(f"invalid readings ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)

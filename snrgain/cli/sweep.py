@@ -28,7 +28,8 @@ from snrgain.cli.options import (
     required=True,
     metavar="'TABLE: KEY = VALUES'",
     help="A key to vary (repeat for a grid): TABLE is a candidate's name, 'reference' or a section (site, band, "
-    "time, receiver, chain, ...); VALUES a range 'START to STOP by STEP' in one unit or a list 'A, B, C'. "
+    "time, receiver, chain, ...); VALUES a range 'START to STOP by STEP' in one unit or a list 'A, B, C' (a list value "
+    "in brackets: 'whip: position = [0, 40], [30, 40]'). "
     "E.g. --vary 'Beverage NE: length = 150 m to 350 m by 10 m' --vary 'site: ground = sandy soil, moist loam'.",
 )
 @click.option(

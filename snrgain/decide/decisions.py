@@ -111,10 +111,17 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     out.extend(tx_notices(sc))
     out.extend(reading_notices(sc))
     out.extend(feed_line_notices(antennas))
-    lowest = p372.MAN_MADE_RANGE_HZ[0]
-    if sc.freq_hz < lowest and sc.noise.man_made is not None:
-        out.append(Notice("man-made-extrapolated", None, {"freq_hz": sc.freq_hz, "lowest_hz": lowest}))
+    out.extend(man_made_extrapolated(sc.freq_hz, sc.noise.man_made is not None))
     return by_switched_antenna(sc, out, None if plan is None else plan.states)
+
+
+def man_made_extrapolated(freq_hz: float, man_made: bool) -> list[Notice]:
+    """The notice that P.372's man-made line is extrapolated below the frequencies it is given from, where man-made
+    noise is heard there (rank's and ``snrgain noise``'s alike)."""
+    lowest = p372.MAN_MADE_RANGE_HZ[0]
+    if freq_hz < lowest and man_made:
+        return [Notice("man-made-extrapolated", None, {"freq_hz": freq_hz, "lowest_hz": lowest})]
+    return []
 
 
 def by_switched_antenna(sc: Scenario, out: list[Notice], planned: dict | None = None) -> list[Notice]:

@@ -39,6 +39,7 @@ protection.
 from __future__ import annotations
 
 import functools
+import re
 
 import numpy as np
 
@@ -110,17 +111,29 @@ def polygon(points, what: str):
 @functools.lru_cache(maxsize=64)
 def _polygon(points: tuple, what: str):
     from shapely.geometry import Polygon
-    from shapely.validation import explain_validity
 
-    poly = Polygon(points)
-    if not poly.is_valid:
+    poly = Polygon(points) if len(set(points)) >= 3 else None
+    if poly is None or not poly.is_valid or poly.area <= 0:
         raise ValueError(
-            f"{what}: the outline is not a simple polygon ({explain_validity(poly).lower()}); "
-            "list the corners in order around the edge, without crossing"
+            f"{what}: the outline is not a simple polygon ({_why_not_simple(points, poly)}); list at least three "
+            "corners at different points, in order around the edge, its edges neither crossing nor touching"
         )
-    if poly.area <= 0:
-        raise ValueError(f"{what}: the outline encloses no area")
     return poly
+
+
+def _why_not_simple(points: tuple, poly) -> str:
+    """Why ``points`` make no simple polygon, in words of the plan (not the geometry library's)."""
+    import shapely
+
+    distinct = len(set(points))
+    if distinct < 3:
+        return f"its {len(points)} corners stand at only {distinct} point{'' if distinct == 1 else 's'}"
+    d = np.asarray(points, dtype=float) - points[0]
+    far = d[np.argmax(np.hypot(d[:, 0], d[:, 1]))]
+    if np.all(np.abs(d[:, 0] * far[1] - d[:, 1] * far[0]) <= 1e-9 * far @ far):
+        return "every corner lies on one line"
+    at = re.search(r"\[(\S+) (\S+)\]", shapely.is_valid_reason(poly))  # where the edges meet, when they do
+    return f"its edges cross or touch at ({float(at[1]):g}, {float(at[2]):g}) m" if at else "it encloses no area"
 
 
 def footprint(antenna):

@@ -3,8 +3,8 @@
 A station plans its receiving antennas for 160, 80 and 40 m at once.  The file then gives ``[[band]]`` tables
 (each with ``frequency``, ``bandwidth`` and optionally ``name``, ``months`` and ``utc_hours``), and a target may
 name the bands it is listened on (``bands = ["160 m"]``; default every band).  :func:`split_bands` turns such a
-file into one single-band scenario per band: the band's table as ``[band]``, its months and hours as ``[time]``'s
-(a target's own times still win), and only the targets listened on it.  Each goes through the whole pipeline as
+file into one single-band scenario per band: the band's table as ``[band]`` (its months and hours win over
+``[time]``'s, a target's own over both), and only the targets listened on it.  Each goes through the whole pipeline as
 it is, so a band's answer is exactly what a file of that band alone gives; the station plan across the bands
 (:func:`snrgain.decide.plan.plan_across_bands`) then uses the same statistic as each band's.
 """
@@ -48,13 +48,7 @@ def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None,
     out = []
     for name, table in zip(names, band):
         one = copy.deepcopy(data)
-        one["band"] = copy.deepcopy(table)
-        time = dict(one.get("time") or {})
-        for key in ("months", "utc_hours"):
-            if key in table:
-                time[key] = copy.deepcopy(table[key])
-        if time:
-            one["time"] = time
+        one["band"] = copy.deepcopy(table)  # its months and hours win over [time]'s (ScenarioModel.listening)
         one["target"] = [
             {k: copy.deepcopy(v) for k, v in t.items() if k != "bands"} if isinstance(t, dict) else t
             for t in targets
@@ -93,9 +87,24 @@ def _check_bands(band: list, data: dict, label: str) -> tuple[list[str], list]:
                 problems.append(
                     (f"target {i + 1}.bands", f"no band named {unknown}; the bands are {', '.join(map(repr, names))}")
                 )
-    if problems:
-        raise ScenarioError(label, problems)
+    if problems:  # the bands' own tables' problems said with them, not left for a second run
+        raise ScenarioError(label, problems + [p for n, b in zip(names, band) for p in _table_problems(n, b)])
     return names, targets
+
+
+def _table_problems(name: str, table: dict) -> list[tuple[str, str]]:
+    """The problems of one [[band]] table on its own, named as loading that band names them."""
+    from pydantic import ValidationError
+
+    from snrgain.problems import pydantic_problems
+
+    from .band import BandSection
+
+    try:
+        BandSection.model_validate(table)
+    except ValidationError as exc:
+        return [(f'band "{name}": {where}', why) for where, why in pydantic_problems(exc, "band", table)]
+    return []
 
 
 def one_band(data: dict, band: str | None, label: str = "<scenario>") -> dict:
@@ -136,14 +145,35 @@ def load_bands(source, *, nside=None, p372_dir=None, reference=None):
         data, label, base_dir = source, "<dict>", None
     else:
         data, label, base_dir = read_source(source)
-    out = []
-    for name, one in split_bands(data, label):
+    out, found = [], {}
+    parts = split_bands(data, label)
+    for name, one in parts:
         band = name if name is not None else band_label(one.get("band") or {})
         try:
             sc = load(one, nside=nside, p372_dir=p372_dir, base_dir=base_dir, label=label, reference=reference)
         except ScenarioError as exc:
             if name is None:
                 raise
-            raise ScenarioError(label, [(f'band "{band}": {where}', why) for where, why in exc.problems]) from None
+            found[band] = exc.problems
+            continue
         out.append((band, sc))
+    if found:
+        raise ScenarioError(label, band_problems(found, len(parts)))
+    return out
+
+
+def band_problems(found: dict[str, list[tuple[str, str]]], bands: int) -> list[tuple[str, str]]:
+    """Each band's problems (band name -> (path, message)) of a file of ``bands`` bands, each said once: one that
+    every band has (a table the bands share) without a band, one that some have naming them."""
+    where_found: dict[tuple[str, str], list[str]] = {}
+    for band, problems in found.items():
+        for problem in problems:
+            where_found.setdefault(problem, []).append(band)
+    out = []
+    for (where, why), names in where_found.items():
+        if len(names) == bands and not where.startswith("band"):
+            out.append((where, why))
+        else:
+            quoted = ", ".join(f'"{n}"' for n in names)
+            out.append((f"band{'s' if len(names) > 1 else ''} {quoted}: {where}", why))
     return out

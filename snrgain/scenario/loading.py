@@ -251,7 +251,7 @@ def assemble(
         else chain
         for c in built.chains
     ]
-    union, target_times = resolve_times(model.time, model.target)
+    union, target_times = resolve_times(model.listening, model.target)
     reference_m = built.antennas[0].params.position or (0.0, 0.0)
     noise = noise_settings(model.noise, resolved.data_dir, model.site, reference_m)
     if file_reference is not None:

@@ -47,6 +47,12 @@ class ScenarioModel(StrictModel):
     plan: PlanSection = PlanSection()
     strong_signal: list[StrongSignal] = Field(default_factory=list, max_length=MAX_ITEMS)
 
+    @property
+    def listening(self) -> Time:
+        """[time] with the band's own months and hours where it gives them (a [[band]] table's, or [band]'s)."""
+        own = {k: getattr(self.band, k) for k in ("months", "utc_hours") if getattr(self.band, k) is not None}
+        return self.time.model_copy(update=own) if own else self.time
+
 
 def model_problems(model: ScenarioModel) -> list[tuple[str, str]]:
     """The checks across sections of a valid model: names of their own, some sky noise."""

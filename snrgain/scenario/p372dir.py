@@ -55,4 +55,4 @@ def find_p372_dir(model: ScenarioModel, base_dir: Path | None, option) -> Path:
     chosen = p372_dir_named(option, model.noise.atmospheric.data_dir, base_dir)
     if chosen is None:
         raise p372_maps.P372DataError(NO_FOLDER_TEXT + p372_maps.HOW_TO_GET)
-    return check_p372_dir(chosen, model.time.months)
+    return check_p372_dir(chosen, model.listening.months)

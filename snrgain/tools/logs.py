@@ -373,15 +373,33 @@ def looks_like_csv(text: str) -> bool:
     return False
 
 
+_LOG_HINT = "give the decoder's ALL-decodes text log or a CSV of its decodes (snrgain verify --example log, or csv)"
+
+
 def read_decodes(path, label: str, problems: Problems) -> pd.DataFrame:
-    """A decode log or CSV (told apart by its first line)."""
+    """A decode log or CSV (told apart by its first line); ValueError naming the file for one that is not text or
+    has lines and not one decode among them (a wrong file given: its lines' reasons alone would pass unseen)."""
     text = read_text(path)
-    if not looks_like_csv(text):
-        return parse_decode_text(text, label, problems)
+    nul, bad = text.find("\0"), text.count("\ufffd")
+    if nul >= 0 or bad > 0.1 * len(text):  # a few bad bytes fail their own lines; this many are no text log
+        what = (
+            f"a NUL byte at character {nul + 1}" if nul >= 0 else f"{bad:,} of its {len(text):,} characters not UTF-8"
+        )
+        raise ValueError(f"{path} (log {label}): not a text log ({what}); {_LOG_HINT}")
     try:
-        return parse_decode_csv(text, label, problems)
+        parse = parse_decode_csv if looks_like_csv(text) else parse_decode_text
+        df = parse(text, label, problems)
     except ValueError as exc:
         raise ValueError(f"{path} (log {label}): {str(exc).removeprefix(label + ': ')}") from None
+    if df.empty:
+        lines = sum(1 for s in text.splitlines() if s.strip() and not s.lstrip().startswith("#"))
+        if lines:
+            why = [r for r, v in problems.by_reason.items() if any(lbl == label for lbl, _ in v)]
+            because = f" ({'; '.join(why[:3])})" if why else ""
+            raise ValueError(
+                f"{path} (log {label}): none of its {lines:,} lines reads as a decode{because}; {_LOG_HINT}"
+            )
+    return df
 
 
 def slots(df: pd.DataFrame, slot_s: float | None = None) -> np.ndarray:

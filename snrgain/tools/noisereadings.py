@@ -404,7 +404,7 @@ def _copy(data: dict, names: set[str], months: list[int], hours: list[float]) ->
 
     d = copy.deepcopy(data)
     d["time"] = {"months": sorted(months), "utc_hours": sorted(hours)}
-    for t in d.get("target", []):
+    for t in [*d.get("target", []), d.get("band") if isinstance(d.get("band"), dict) else {}]:
         t.pop("months", None)
         t.pop("utc_hours", None)
     ref = d.get("reference", {}).get("name", "reference")

@@ -5,7 +5,9 @@ A varied key is written ``TABLE: KEY = VALUES`` (snrgain's own syntax):
 - TABLE is a candidate's name, ``reference``, or a section of the scenario (``site``, ``band``, ``time``,
   ``receiver``, ``chain``); KEY is a key of that table (dotted for a key inside it, ``feedline.length``);
 - VALUES is a range ``START to STOP by STEP`` (the same unit throughout, STOP included when the steps reach
-  it: ``150 m to 350 m by 10 m``) or a list ``A, B, C`` (``sandy soil, moist loam``; ``1, 7`` for months).
+  it: ``150 m to 350 m by 10 m``; its values kept to 12 decimal places, a finer step refused) or a list ``A, B, C``
+  (``sandy soil, moist loam``; ``1, 7`` for months; a value that is itself a list in brackets, as the scenario
+  writes it: ``[0, 40], [30, 40]`` for two positions).
 
     >>> v = parse_vary("Beverage NE: length = 150 m to 250 m by 50 m")
     >>> v.table, v.key, v.values, v.column
@@ -104,6 +106,33 @@ def _scalar(item: str):
         return item
 
 
+def _items(values: str, arg: str) -> list[str]:
+    """A list's items, split at the commas outside brackets: ``[0, 0], [10, 0]`` is two positions."""
+    items, depth, start = [], 0, 0
+    for i, ch in enumerate(values):
+        depth += {"[": 1, "]": -1}.get(ch, 0)
+        if depth < 0:
+            raise VaryError(arg, f"a ']' at character {i + 1} of the values closes no '['")
+        if ch == "," and depth == 0:
+            items.append(values[start:i].strip())
+            start = i + 1
+    if depth:
+        raise VaryError(arg, "a '[' of the values is not closed; write a list value whole, e.g. [0, 0]")
+    return [*items, values[start:].strip()]
+
+
+def _bracketed(item: str, arg: str):
+    """A bracketed list item (a position ``[12, -9.1]`` or ``["12 m", "-30 ft"]``) as TOML reads it."""
+    import tomllib
+
+    try:
+        return tomllib.loads(f"v = {item}")["v"]
+    except tomllib.TOMLDecodeError:
+        raise VaryError(
+            arg, f'cannot read {item!r} as a list: write it as in the scenario, e.g. [12, -9.1] or ["12 m", "-30 ft"]'
+        ) from None
+
+
 def parse_vary(text: str) -> Vary:
     """Read one ``TABLE: KEY = VALUES`` argument (module docstring); raises VaryError naming it."""
     if ":" not in text or "=" not in text:
@@ -130,18 +159,24 @@ def parse_vary(text: str) -> Vary:
         n = int(math.floor((b - a) / step + 1e-9)) + 1
         if n > MAX_DESIGNS:
             raise VaryError(text, f"{n} values is too many (at most {MAX_DESIGNS})")
-        nums = [a + i * step for i in range(n)]
-        nums = [round(x, 12) for x in nums]
-        vals = [f"{x:g} {ua}" if ua else x for x in nums]
+        nums = [round(a + i * step, 12) for i in range(n)]
+        if len(set(nums)) < n:
+            raise VaryError(
+                text,
+                f"the step {step:g}{' ' + us if us else ''} is finer than the values are kept at (12 decimal places, "
+                f"and 15 significant digits of {max(abs(a), abs(b)):g}): {n} designs would repeat values; give a "
+                "coarser step",
+            )
+        vals = [f"{np.format_float_positional(x, trim='-')} {ua}" if ua else x for x in nums]
         column = f"{table}: {key} [{ua}]" if ua else f"{table}: {key}"
         col_vals = nums
     else:
-        items = [v.strip() for v in values.split(",")]
+        items = _items(values, text)
         if not any(items):
             raise VaryError(text, "no values: give a range START to STOP by STEP or a list A, B, C")
         if not all(items):
             raise VaryError(text, f"item {items.index('') + 1} of the list is empty (two commas, or one at an end)")
-        vals = [_scalar(s) for s in items]
+        vals = [_bracketed(s, text) if s.startswith("[") else _scalar(s) for s in items]
         column = f"{table}: {key}"
         col_vals = list(vals)
     if listed:

@@ -301,7 +301,7 @@ def scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[flo
 
     d = copy.deepcopy(data)
     d["time"] = {"months": sorted(months), "utc_hours": sorted(hours)}
-    for t in d.get("target", []):
+    for t in [*d.get("target", []), d.get("band") if isinstance(d.get("band"), dict) else {}]:
         t.pop("months", None)
         t.pop("utc_hours", None)
     ref_name = d.get("reference", {}).get("name", "reference")
