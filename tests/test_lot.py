@@ -334,3 +334,40 @@ def test_the_header_gives_a_level_read_on_an_antenna_as_written():
     said = f"tv: Fa {float(r.noise.components['tv']['fa_db'].ravel()[0]):.1f} dB (read S8, -79.0 dBm, on "
     assert said + f"{r.reference.name})" in str(_header(r))
     assert f"tv (read S8, -79.0 dBm, on {r.reference.name})" in html.unescape(render(r))
+
+
+@pytest.mark.parametrize(
+    "lag, said", [(318.0, "leading 42 deg"), (123.0, "lagging 123 deg"), (180.0, "lagging 180 deg")]
+)
+def test_a_units_setting_reads_as_its_dial_within_180_deg(lag, said):
+    """A phasing unit's phase reads within 180 deg either way, as its dial does: "sense whip lagging 318 deg" was
+    a 42 deg lead to the builder."""
+    from snrgain.outputs.output import build_lines
+
+    c = (
+        '[[candidate]]\nname = "sense"\nfamily = "vertical"\nheight = "6 m"\nposition = [150, -10]\n\n'
+        f'[[candidate]]\nname = "unit"\nfamily = "combination"\nantennas = ["inside", "sense"]\nbearing = 0\n'
+        f'setting = {{ phase = {lag}, amplitude = -3, phase_sense = "lag" }}\n'
+    )
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates=c))
+    line = dict(build_lines(r))["unit"]
+    assert f"sense {said}" in line and "at -3.0 dB" in line
+
+
+def test_the_ranking_figure_says_a_best_below_the_reference_so():
+    """The ranking figure's "best" beside a target's best bar says when even that one does not beat the reference, as
+    the text's verdict does ("-11.0 best" stood beside "no candidate beats the reference"): a second target behind
+    the Beverage, which it serves worse than the vertical."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from snrgain.outputs.plots import ranking_chart
+
+    back = '[[target]]\nname = "behind"\nbearing = 180\nelevation = [10, 25]\n\n[reference]'
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates="").replace("[reference]", back, 1))
+    best = [float(r.antenna(t.best).snr_gain_median_db[i]) for i, t in enumerate(r.target_results)]
+    assert min(best) <= 0 < max(best)  # one target served, one not
+    fig = ranking_chart(r)
+    texts = [t.get_text() for ax in fig.axes for t in ax.texts]
+    assert sum(x.endswith("  best, below the reference") for x in texts) == sum(b <= 0 for b in best)
+    assert sum(x.endswith("  best") for x in texts) == sum(b > 0 for b in best)

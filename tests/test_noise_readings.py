@@ -292,3 +292,17 @@ def test_one_reading_that_holds_little_man_made_noise_determines_nothing(tmp_pat
     assert max(r["man_made_share"] for r in f.rows if r.get("man_made_share") is not None) < 0.01
     assert np.isfinite(f.tolerance_db) and f.tolerance_db > nr.MAX_TOLERANCE_DB
     assert not f.determined and "wider than" in " ".join(f.not_determined_because)
+
+
+def test_an_undetermined_fit_says_nothing_of_a_fitted_level():
+    """A fit the readings do not determine has no level to remark on: the note on where a fitted level lies against
+    P.372's environments is kept for a determined fit (a tester read "not determined by these readings" and then
+    "the fitted man-made level, Fa -10.7 dB ... check before writing it")."""
+    row = {"reading": 1, "time_utc": "2026-11-10 23:00", "antenna": "v", "kind": "rise over load"}
+    rows = [{**row, "antenna_temperature_k": 4e4, "offset_db": -40.0, "man_made_fa_db": -10.7, "note": ""}]
+    loose = nr.NoiseFit(0.0, -40.0, 0.0, 50.0, "quiet rural", 7.05e6, rows, ["a"], ["the fitted man-made level"])
+    assert not loose.determined and loose.shown_notes == ["a"]
+    assert "the fitted man-made level" not in "\n".join(nr.fit_lines(loose))
+    assert loose.as_dict()["notes"] == ["a"]
+    tight = nr.NoiseFit(0.0, -3.0, 0.5, 1.0, "quiet rural", 7.05e6, [{**rows[0], "offset_db": -3.0}], ["a"], ["b"])
+    assert tight.determined and tight.shown_notes == ["a", "b"] and "note: b" in nr.fit_lines(tight)

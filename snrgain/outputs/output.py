@@ -533,9 +533,11 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             if not np.isfinite(amp):  # the unit passes the first antenna alone (the other input off)
                 bits.append(f"the phase and amplitude unit passes {first} alone ({second}'s input off)")
             else:
+                lag = float(st["phase_lag_deg"]) % 360.0  # as a unit's dial reads: (-180, 180] deg
+                lag = lag - 360.0 if lag > 180.0 else lag
+                way = f"lagging {lag:.0f} deg" if lag >= 0 else f"leading {-lag:.0f} deg"
                 bits.append(
-                    f"add {second} to {first} through a phase and amplitude unit: {second} lagging "
-                    f"{st['phase_lag_deg']:.0f} deg at {signed_text(amp)} dB"
+                    f"add {second} to {first} through a phase and amplitude unit: {second} {way} at {signed_text(amp)} dB"
                 )
             if np.isfinite(amp) and abs(amp) >= UNIT_RANGE_DB:
                 weak, strong = (first, second) if amp > 0 else (second, first)

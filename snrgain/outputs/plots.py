@@ -808,11 +808,13 @@ def ranking_chart(results, *, ax=None):
         axes[0].errorbar(med, y + off, xerr=[med - lo, hi - med], fmt="none", ecolor="black", elinewidth=1, capsize=2)
         _barh(axes[1], y + off, rdf[:, ti], **bars)
         best = names.index(str(lab.coord("best")[ti]))
+        # the best of candidates none of which beats the reference is said so, as the text's verdict says
+        best_word = "  best" if med[best] > 0 else "  best, below the reference"
         for k, (yi, v, top) in enumerate(zip(y + off, med, hi)):
             axes[0].text(
                 max(top, 0),
                 yi,
-                f"  {signed_text(v)}" + ("  best" if k == best else ""),
+                f"  {signed_text(v)}" + (best_word if k == best else ""),
                 va="center",
                 fontsize=7,
                 fontweight="bold" if k == best else "normal",

@@ -329,6 +329,14 @@ class NoiseFit:
     freq_hz: float
     rows: list[dict]
     notes: list[str] = field(default_factory=list)
+    level_notes: list[str] = field(default_factory=list)
+    """Notes on the fitted level itself (where it lies against P.372's environments): said only where the readings
+    determine it (:attr:`shown_notes`); an undetermined fit has no level to remark on."""
+
+    @property
+    def shown_notes(self) -> list[str]:
+        """The notes said: the readings' own, and the level's where the readings determine it."""
+        return self.notes + (self.level_notes if self.determined else [])
 
     @property
     def not_determined_because(self) -> list[str]:
@@ -389,7 +397,7 @@ class NoiseFit:
             "tolerance_90_db": tol if ok else None,
             "man_made_fa_db": self.fa_db if ok else None,
             "readings": self.rows,
-            "notes": self.notes,
+            "notes": self.shown_notes,
         }
 
 
@@ -548,9 +556,8 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
     from snrgain.tools.learn import beyond_p372_note
 
     beyond = beyond_p372_note(env, float(freq), before + delta)
-    if beyond:
-        notes.append(beyond)
-    return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes)
+    level = [beyond] if beyond else []
+    return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes, level)
 
 
 def fit_lines(f: NoiseFit) -> list[str]:
@@ -571,14 +578,14 @@ def fit_lines(f: NoiseFit) -> list[str]:
             f"man-made ({f.environment}) at {f.freq_hz / 1e6:g} MHz: not determined by these readings; the scenario "
             f"keeps its offset {f.before_db:+.1f} dB",
             *(f"  because {n}" for n in f.not_determined_because),
-            *(f"note: {n}" for n in f.notes),
+            *(f"note: {n}" for n in f.shown_notes),
         ]
     tol = "" if not np.isfinite(f.tolerance_db) else f" +-{f.tolerance_db:.1f} dB (90 %)"
     out += [
         "",
         f"man-made ({f.environment}) at {f.freq_hz / 1e6:g} MHz: Fa {f.fa_db:.1f} dB above kT0b; offset "
         f"{f.before_db:+.1f} -> {f.offset_db:+.1f} dB{tol}; the readings scatter {f.spread_db:.1f} dB about the fit",
-        *(f"note: {n}" for n in f.notes),
+        *(f"note: {n}" for n in f.shown_notes),
     ]
     return out
 
