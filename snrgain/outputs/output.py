@@ -537,7 +537,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
                 lag = lag - 360.0 if lag > 180.0 else lag
                 way = f"lagging {lag:.0f} deg" if lag >= 0 else f"leading {-lag:.0f} deg"
                 bits.append(
-                    f"add {second} to {first} through a phase and amplitude unit: {second} {way} at {signed_text(amp)} dB"
+                    f"add {second} to {first} through a phase and amplitude unit: {second} {way} at "
+                    f"{signed_text(amp)} dB"
                 )
             if np.isfinite(amp) and abs(amp) >= UNIT_RANGE_DB:
                 weak, strong = (first, second) if amp > 0 else (second, first)
