@@ -210,3 +210,24 @@ def test_a_best_effort_preamp_comes_within_half_a_db_of_unlimited_gain():
         assert np.all(b.snr_loss_db < budget.receiver_snr_loss_db)
     reachable = chain.noise_budget(ch, np.array([1e7]), bandwidth_hz=500.0, margin_target_db=10.0)
     assert reachable.best_effort is None  # a gain reaches the target: the budget's own advice stands
+
+
+def test_a_best_effort_preamp_never_makes_reception_worse():
+    """No best-effort preamplifier where fitting one would not lower the worst hour's loss: a receiver of 2 dB noise
+    figure is quieter than the suggested 3 dB preamplifier; and the chain's own preamplifier is never turned down (a
+    30 dB one was advised down to 18 dB, its loss rising from 13.1 to 13.6 dB)."""
+    t_a = np.array([[30.0, 60.0]])
+    quiet = chain.Chain((chain.passive("transformer", 0.5), chain.amplifier("rx", gain_db=0, noise_figure_db=2)))
+    assert chain.best_effort_preamp(quiet, t_a) is None
+    assert chain.noise_budget(quiet, t_a, bandwidth_hz=500.0, margin_target_db=10.0).best_effort is None
+    own = chain.amplifier("pre", gain_db=30, noise_figure_db=6)
+    rx = chain.amplifier("rx", gain_db=0, noise_figure_db=15)
+    placed = chain.Chain((chain.passive("transformer", 0.5), own, chain.passive("cable", 10.0), rx), preamp_index=1)
+    b = chain.best_effort_preamp(placed, t_a)
+    assert b is None or (b.gain_db >= 30.0 and b.position == "as placed")
+    low = chain.Chain((chain.passive("transformer", 0.5), chain.amplifier("pre", gain_db=3, noise_figure_db=3),
+                       chain.passive("cable", 10.0), rx), preamp_index=1)  # fmt: skip
+    raised = chain.best_effort_preamp(low, t_a)  # a 3 dB preamplifier behind 10 dB of cable: more gain helps
+    assert raised is not None and raised.gain_db > 3.0 and raised.position == "as placed"
+    before = 10 * np.log10((t_a + low.temperature_k) / t_a)
+    assert np.max(raised.snr_loss_db) < np.max(before) - 0.1

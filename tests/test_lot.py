@@ -337,7 +337,15 @@ def test_the_header_gives_a_level_read_on_an_antenna_as_written():
 
 
 @pytest.mark.parametrize(
-    "lag, said", [(318.0, "leading 42 deg"), (123.0, "lagging 123 deg"), (180.0, "lagging 180 deg")]
+    "lag, said",
+    [
+        (318.0, "leading 42 deg"),
+        (123.0, "lagging 123 deg"),
+        (180.0, "lagging 180 deg"),
+        (180.3, "lagging 180 deg"),
+        (359.7, "in phase"),
+        (0.3, "in phase"),
+    ],
 )
 def test_a_units_setting_reads_as_its_dial_within_180_deg(lag, said):
     """A phasing unit's phase reads within 180 deg either way, as its dial does: "sense whip lagging 318 deg" was

@@ -182,7 +182,7 @@ def test_notices_are_data_and_worded_at_the_edge():
 
 
 def test_a_receiver_no_preamp_brings_to_the_target_still_gets_the_preamp_that_comes_closest():
-    # An 18 dB noise figure receiver behind 6 dB of cable, asked for 60 dB of margin: no 3 dB preamplifier brings
+    # A 30 dB noise figure receiver behind 20 dB of cable, asked for 60 dB of margin: no 3 dB preamplifier brings
     # the sky that far over the floor at every hour, but one at the antenna still recovers most of what the
     # receiver costs; the table shows its gain marked '*' (it said "none", read as "no preamplifier needed") and the
     # warning says what it recovers.
@@ -192,7 +192,7 @@ def test_a_receiver_no_preamp_brings_to_the_target_still_gets_the_preamp_that_co
 
     from snrgain.outputs.output import ranking_table
 
-    text = MINIMAL + '\n[receiver]\nnoise_figure = 18\nmargin_target = 60\n\n[chain]\nfeedline = { loss = "6 dB" }\n'
+    text = MINIMAL + '\n[receiver]\nnoise_figure = 30\nmargin_target = 60\n\n[chain]\nfeedline = { loss = "20 dB" }\n'
     r = snrgain.evaluate(text)
     limited = [n for n in r.notices if n.code == "receiver-limited" and "best_gain_db" in n.values]
     assert limited

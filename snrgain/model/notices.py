@@ -17,8 +17,10 @@ class Notice:
     """Something the user should know: a code, the antenna it concerns (or None), and the numbers behind it.
 
     Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
-    preamp_position), ``man-made-extrapolated`` (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg,
-    lobe_deg, off_deg: an array whose main lobe points more than 90 deg away from its bearing),
+    preamp_position; where no gain reaches the target, best_gain_db, best_position, best_max_snr_loss_db: the
+    preamplifier that comes closest, snrgain.physics.chain.best_effort_preamp), ``man-made-extrapolated``
+    (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg, lobe_deg, off_deg: an array whose main lobe points
+    more than 90 deg away from its bearing),
     ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|),
     ``strong-signal-overload`` (stations, loudest, loudest_hz, stage, stage_input_dbm, p1db_dbm, margin_db, over_db,
     filter_db, assumed), ``strong-signal-product`` (order, freq_hz, stations, stage, level_dbm, noise_dbm, over_db,
@@ -26,10 +28,13 @@ class Notice:
     costs more than 1 dB of SNR gain; snrgain.model.feedline), ``feed-line-ground-assumed`` (an antenna whose ground
     where its feed line's shield ends is snrgain's assumption: a phasing unit's; snrgain.model.feedline),
     ``feed-line-near-tx-vertical`` (distance_m, clearance_m: a feed line's run within the tx_clearance the user gives;
-    snrgain.decide.lot), ``local-source-dominates`` (source, source_dbm, rest_dbm, over_db: a candidate whose loudest
-    local source is 6 dB or more above the rest of its noise; snrgain.decide.decisions), ``termination-fragile``
-    (termination_ohm, matched_ohm, over_matched_db, front_to_back_db, front_to_back_matched_db: a resistor chosen for
-    SNR that beats |Z0| by under 1 dB at 10 dB or more of front-to-back; snrgain.decide.decisions),
+    snrgain.decide.lot), ``antennas-same-place`` (other, distance_m: two antennas, not both wires, within 1 m on the
+    plan; snrgain.decide.lot), ``local-source-dominates`` (source, source_dbm, rest_dbm, over_db, reference: an
+    antenna, the reference too, whose loudest local source is 6 dB or more above the rest of its noise;
+    snrgain.decide.decisions), ``termination-fragile`` (termination_ohm, safer_ohm, safer: "matched" or "rdf",
+    safer_words, over_safer_db, front_to_back_db, front_to_back_safer_db: a resistor chosen for SNR that beats the
+    matched resistor or the one of best RDF by under 1 dB while giving up 10 dB of front-to-back per dB, at least
+    3 dB; snrgain.decide.decisions),
     ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and
     front_to_back_drawn_db: their 10, 50 and 90 % points with the phasing lines cut with a cable's usual errors,
     longest_delay_ns, longest_error_ns, velocity_factor_error, length_error_m, draws: an array whose figures rest on

@@ -533,9 +533,9 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             if not np.isfinite(amp):  # the unit passes the first antenna alone (the other input off)
                 bits.append(f"the phase and amplitude unit passes {first} alone ({second}'s input off)")
             else:
-                lag = float(st["phase_lag_deg"]) % 360.0  # as a unit's dial reads: (-180, 180] deg
-                lag = lag - 360.0 if lag > 180.0 else lag
-                way = f"lagging {lag:.0f} deg" if lag >= 0 else f"leading {-lag:.0f} deg"
+                lag = round(float(st["phase_lag_deg"])) % 360  # as a unit's dial reads: (-180, 180] deg, whole
+                lag = lag - 360 if lag > 180 else lag
+                way = "in phase" if lag == 0 else f"lagging {lag} deg" if lag > 0 else f"leading {-lag} deg"
                 bits.append(
                     f"add {second} to {first} through a phase and amplitude unit: {second} {way} at "
                     f"{signed_text(amp)} dB"

@@ -216,6 +216,10 @@ BEST_EFFORT_SHORT_DB = 0.5
 within this of what the preamplifier tends to at unlimited gain [dB]: more gain buys at most this much."""
 
 
+BEST_EFFORT_GAINS_DB = 0.1
+"""A best-effort preamplifier is offered only where it lowers the worst hour's SNR loss by more than this [dB]."""
+
+
 @record
 class BestEffortPreamp:
     """The preamplifier to fit where none reaches the margin target: its gain [dB], where it goes ("receiver",
@@ -226,13 +230,16 @@ class BestEffortPreamp:
     snr_loss_db: np.ndarray
 
 
-def best_effort_preamp(chain: Chain, antenna_temperature_k) -> BestEffortPreamp:
+def best_effort_preamp(chain: Chain, antenna_temperature_k) -> BestEffortPreamp | None:
     """The preamplifier that comes within BEST_EFFORT_SHORT_DB of the lowest noise factor a preamplifier can give the
     chain (its own, or a suggested one of SUGGESTED_PREAMP_NOISE_FIGURE_DB before the receiver, or at the antenna where
     that tends to a noise factor more than BEST_EFFORT_SHORT_DB lower: a lossy feed line ahead): by Friis's formula
     (H. T. Friis, Proc. IRE 32, 1944) the noise factor with gain G is F_b + (F_p - 1) / G_b + (F_a - 1) / (G_b G),
     within a factor 10^(0.05) of its limit where (F_a - 1) / (G_b G) = F_lim (10^(0.05) - 1).  What it recovers is the
-    SNR loss with it against the chain's own (``receiver_snr_loss_db`` of the noise budget)."""
+    SNR loss with it against the chain's own (``receiver_snr_loss_db`` of the noise budget).  The chain's own
+    preamplifier is never turned down (its gain or the one found, whichever is higher); None where the preamplifier
+    does not lower the worst hour's loss by BEST_EFFORT_GAINS_DB (a receiver quieter than the suggested
+    preamplifier, an own preamplifier already at its best)."""
     options = [("as placed", chain)] if chain.preamp_index is not None else []
     options = options or [(pos, with_suggested_preamp(chain, pos)) for pos in ("receiver", "antenna")]
     best = None
@@ -244,12 +251,17 @@ def best_effort_preamp(chain: Chain, antenna_temperature_k) -> BestEffortPreamp:
         limit = f_b + (f_p - 1) / g_b if before else f_p
         g = (f_a - 1) / (g_b * limit * (10 ** (BEST_EFFORT_SHORT_DB / 10) - 1))
         gain_db = float(max(10 * np.log10(g), 0.0)) if g > 0 else 0.0
+        if position == "as placed":  # never less than it has
+            gain_db = max(gain_db, float(10 * np.log10(c.stages[c.preamp_index].gain)))
         if best is None or limit * 10 ** (BEST_EFFORT_SHORT_DB / 10) < best[0]:  # at the antenna: 0.5 dB better
             best = (limit, position, gain_db, c.with_preamp_gain(gain_db))
     _, position, gain_db, fitted = best
     t_a = np.asarray(antenna_temperature_k, dtype=float)
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore"):
         loss = 10.0 * np.log10((t_a + fitted.temperature_k) / t_a)
+        now = 10.0 * np.log10((t_a + chain.temperature_k) / t_a)
+    if not float(np.nanmax(loss)) < float(np.nanmax(now)) - BEST_EFFORT_GAINS_DB:
+        return None
     return BestEffortPreamp(gain_db, position, loss)
 
 

@@ -42,9 +42,9 @@ feed reads about 0.03 in the tests; one metre of 50 ohm coax in between, 0.37)."
 MAX_SWEEP_BYTES = 20_000_000
 """The largest Touchstone file read [bytes]."""
 SWEEP_MAX_FREQ_HZ = 300e6
-"""The highest frequency a sweep's point may have [Hz]: a decade above the tool's top (30 MHz).  A wire for the
-bands the tool covers is swept no higher; a point above is a unit's slip (Hz read as MHz, the option line's unit
-missing).  The lowest: more than 0 Hz."""
+"""The highest frequency a sweep's point is read at [Hz]: a decade above the tool's top (30 MHz).  Points above it in
+a sweep that also has points below (an analyser's whole range saved) are left out; a sweep wholly above it is a unit's
+slip (Hz read as MHz, the option line's unit missing), refused.  The lowest: more than 0 Hz."""
 PASSIVE_S_MAX = 1.05
 """The largest reflection |S| a sweep's point may have [-]: a passive wire reflects at most 1 (its resistance is not
 negative); the 0.05 allows an analyser's calibration error (a few hundredths on an open, common practice)."""
@@ -112,7 +112,16 @@ def read_sweep(path: str | Path) -> Sweep:
     if not ok.all():
         raise SweepError(_line_at_fault(p, raw) or f"{p}: {int((~ok).sum())} points are not finite numbers")
     r_ohm = np.real(np.ravel(net.z0))
-    _check_points(p, _data_lines(text), f, s, z, float(r_ohm[0]) if r_ohm.size else float("nan"))
+    data = _data_lines(text)
+    above = f > SWEEP_MAX_FREQ_HZ
+    if above.any() and not above.all() and np.all(f > 0):
+        # an analyser's whole range (to 900 MHz and more) saved with the low bands: the points above are no wire's
+        # business here and are left out; a sweep wholly above is a unit's slip, refused below
+        keep = ~above
+        data = [d for d, k in zip(data, keep) if k] if len(data) == len(f) else data
+        f, s, z = f[keep], s[keep], z[keep]
+        ok = ok[keep]
+    _check_points(p, data, f, s, z, float(r_ohm[0]) if r_ohm.size else float("nan"))
     if ok.sum() < 5:
         raise SweepError(f"{p}: fewer than 5 points (a sweep across the wire's resonances needs more)")
     order = np.argsort(f, kind="stable")
