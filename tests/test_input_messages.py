@@ -8,7 +8,7 @@ import pytest
 
 from snrgain.errors import ScenarioError
 from snrgain.scenario import load
-from tests.conftest import MINIMAL, REPO
+from tests.conftest import HAVE_P372, MINIMAL, P372_DIR, REPO
 
 
 def _problems(text: str) -> list[tuple[str, str]]:
@@ -195,6 +195,7 @@ def test_a_copy_for_logged_times_takes_the_logs_times_not_the_bands():
 
 
 @pytest.mark.parametrize("freq, environment, warned", [("0.1 MHz", "residential", True), ("0.5 MHz", "rural", False)])
+@pytest.mark.skipif(not HAVE_P372, reason="needs the ITU-R P.372 coefficient files (SNRGAIN_P372_DIR)")
 def test_noise_warns_as_rank_does_where_the_man_made_line_is_extrapolated(freq, environment, warned):
     import json
 
@@ -205,6 +206,7 @@ def test_noise_warns_as_rank_does_where_the_man_made_line_is_extrapolated(freq, 
     from snrgain.outputs.messages import notice_text
 
     args = ["noise", "--lat", "41.6", "--lon", "-72.35", "--month", "7", "--frequency", freq]
+    args += ["--p372-dir", str(P372_DIR)]
     res = CliRunner().invoke(cli, [*args, "--environment", environment, "--format", "json", "--no-galactic"])
     assert res.exit_code == 0, res.output
     said = [notice_text(n) for n in man_made_extrapolated(float(freq.split()[0]) * 1e6, True)]
