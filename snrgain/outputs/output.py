@@ -118,21 +118,31 @@ def _preamp_cell(limited: bool, gain_db, best_effort: dict | None = None) -> str
 
 
 def hours_text(hours) -> str:
-    """UTC hours as a compact list: "22-23, 0-4 UTC" for runs of whole hours, else the hours.
+    """UTC hours as a compact list in the order a listener meets them (snrgain.outputs.style.listening_order, as the
+    report and the figures give them): runs of whole hours as "start-end", a run across midnight as one ("22-2"),
+    else the hours.
 
     >>> hours_text([0.0, 1.0, 2.0, 5.0, 22.0, 23.0])
-    '0-2, 5, 22-23 UTC'
+    '22-2, 5 UTC'
+    >>> hours_text([3.0, 4.0, 5.0, 10.5])
+    '3-5, 10.5 UTC'
+    >>> hours_text(range(24))
+    '0-23 UTC'
     """
-    hs = sorted(float(h) for h in hours)
-    parts, start = [], None
+    from snrgain.outputs.style import listening_order
+
+    hs = [float(h) for h in listening_order([float(h) for h in hours], 24)]
+    if len(hs) == 24:  # every hour of the day: from 0
+        hs.sort()
+    runs, start = [], None
     for i, h in enumerate(hs):
         if start is None:
             start = h
         nxt = hs[i + 1] if i + 1 < len(hs) else None
-        if nxt is None or nxt - h != 1.0:
-            parts.append(f"{start:g}" if start == h else f"{start:g}-{h:g}")
+        if nxt is None or nxt != (h + 1.0) % 24.0 or not float(h).is_integer():
+            runs.append((start, h))
             start = None
-    return ", ".join(parts) + " UTC"
+    return ", ".join(f"{a:g}" if a == b else f"{a:g}-{b:g}" for a, b in runs) + " UTC"
 
 
 def ground_text(site: dict) -> str:
