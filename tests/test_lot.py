@@ -65,6 +65,11 @@ def test_a_wire_inside_the_lot_and_clear_of_everything_draws_no_warning():
     codes = _codes(BASE.format(extra_site="", candidates=""))
     assert not {c for c in codes if c[1] == "inside"}
     assert ("source-in-keep-out", None) in codes  # the TV is in the house: said, not refused
+    from snrgain.outputs.messages import notice_text
+
+    r = snrgain.evaluate(BASE.format(extra_site="", candidates=""))
+    text = notice_text(next(n for n in r.notices if n.code == "source-in-keep-out"))
+    assert "nothing to change" in text  # expected of a device in a house: not a fault (a tester read it as one)
 
 
 @pytest.mark.parametrize(

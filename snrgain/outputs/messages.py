@@ -287,7 +287,10 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "both stations' frequencies before the first amplifier brings it down to the noise"
         )
     if n.code == "source-in-keep-out":
-        return f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r}"
+        return (
+            f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r} (expected of a device in a "
+            "building there: nothing to change; said in case its position was meant to be elsewhere)"
+        )
     if n.code == "level-on-directional":
         return (
             f"{n.antenna}: the level of noise source {v['source']!r} was read on it, a directional antenna (its gain "
