@@ -322,6 +322,19 @@ class Size:
         return self.noise_work / self.NOISE_OPS_PER_SECOND + self.sky_work / self.SKY_OPS_PER_SECOND
 
 
+MEMORY_BASE_BYTES = 100e6
+MEMORY_PER_DRAW_CELL = 4
+MEMORY_PER_CELL_PIXEL = 3.5
+MEMORY_PER_ANTENNA_PIXEL = 20
+"""The memory estimate's terms: a base, and the float64 values held per ground node x draw x cell (each node's noise
+of the reference and of an antenna, and their sorted or binned copies), per cell x pixel (the sky's maps) and per
+antenna x pixel (patterns and the quantities worked from them).  Fitted, on the safe side, to peak memory measured by
+`benchmarks/limits.py --memory` (12 months x 48 hours, one target): 5000 draws at nside 64 1.15 GB, 10,000 at nside
+64 1.87 GB, 20,000 at nside 32 3.04 GB, 5000 at nside 128 2.25 GB, 16 antennas more 1.21 and 2.50 GB; the terms
+before them (two copies per draw and cell, three per cell and pixel, none per antenna) gave 0.82-1.84 GB, under every
+one (a run of 20,000 draws at nside 128 took 4.4 GB, estimated at 2.8 GB, past the 4 GB bound without a word)."""
+
+
 def size(sc) -> Size:
     """The cost of a scenario's evaluation (:class:`Size`), from its dimensions alone."""
     u = sc.uncertainty
@@ -334,7 +347,12 @@ def size(sc) -> Size:
     ants = len(sc.antennas)
     factors = draws * comps * cells
     held = factors <= FACTORS_HELD  # else the level factors are computed again per antenna and ground (8x the cost)
-    memory = 8 * ((factors if held else DRAW_BLOCK * comps * cells) + 2 * nodes * draws * cells + 3 * cells * pixels)
+    memory = MEMORY_BASE_BYTES + 8 * (
+        (factors if held else DRAW_BLOCK * comps * cells)
+        + MEMORY_PER_DRAW_CELL * nodes * draws * cells
+        + MEMORY_PER_CELL_PIXEL * cells * pixels
+        + MEMORY_PER_ANTENNA_PIXEL * ants * pixels
+    )
     noise = float(ants * nodes * factors * (1 if held else 8))
     sky = float(ants * nodes * 3 * cells * pixels)
     return Size(ants, nodes, draws, comps, cells, pixels, noise, sky, int(memory))
