@@ -133,6 +133,19 @@ def read_coefficients(path: str | Path, month: int) -> AtmosphericCoefficients:
         arrays[name] = numbers.reshape(dims[::-1])
     if arrays.keys() != SECTIONS.keys():
         return _read_by_line(path, text, month)
+    return _varied(path, month, arrays)
+
+
+def _varied(path: Path, month: int, arrays: dict) -> AtmosphericCoefficients:
+    """The coefficients, or P372DataError for a section that holds one value throughout (a block zeroed or filled
+    by a damaged copy: P.372's sections vary, and such a file read as Fa 0 dB without a word)."""
+    for name in SECTIONS:
+        a = arrays[name]
+        if a.size > 1 and float(np.ptp(a)) == 0.0:
+            raise P372DataError(
+                f"{path}: section {name}{SECTIONS[name]} holds one value throughout ({float(a.flat[0]):g}), which no "
+                "P.372 coefficient file does; the file is damaged: copy it again from its source"
+            )
     return AtmosphericCoefficients(month, path, arrays["fakp"], arrays["fakabp"], arrays["dud"], arrays["fam"])
 
 
@@ -175,7 +188,7 @@ def _read_by_line(path: Path, text: str, month: int) -> AtmosphericCoefficients:
         if len(values[name]) != n:
             raise P372DataError(f"{path}: section {name}{expect} holds {len(values[name])} values, expected {n}")
         arrays[name] = np.array(values[name]).reshape(expect[::-1])
-    return AtmosphericCoefficients(month, path, arrays["fakp"], arrays["fakabp"], arrays["dud"], arrays["fam"])
+    return _varied(path, month, arrays)
 
 
 @lru_cache(maxsize=24)

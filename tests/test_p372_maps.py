@@ -311,3 +311,19 @@ def test_a_damaged_coefficient_file_is_refused(tmp_path):
     (tmp_path / "COEFF01W.txt").write_text("\n".join(lines), encoding="latin-1")
     with pytest.raises(p372_maps.P372DataError, match="out of range"):
         p372_maps.read_coefficients(tmp_path / "COEFF01W.txt", 1)
+
+
+@needs_p372
+@pytest.mark.parametrize("section", ["fam", "dud"])
+def test_a_section_zeroed_throughout_is_refused(tmp_path, section):
+    # A damaged copy with a section filled with zeros read as Fa 0 dB (fam) or deciles of 0 dB (dud) without a word.
+    import re
+
+    text = (P372_DIR / "COEFF02W.txt").read_text(encoding="latin-1")
+    heads = list(p372_maps._HEADER_IN_TEXT.finditer(text))
+    i = next(k for k, m in enumerate(heads) if m.group(1) == section)
+    end = heads[i + 1].start() if i + 1 < len(heads) else len(text)
+    body = re.sub(r"[-+0-9.Ee]+", "0.0", text[heads[i].end() : end])
+    (tmp_path / "COEFF02W.txt").write_text(text[: heads[i].end()] + body + text[end:], encoding="latin-1")
+    with pytest.raises(p372_maps.P372DataError, match=f"section {section}.*holds one value throughout .0.*damaged"):
+        p372_maps.read_coefficients(tmp_path / "COEFF02W.txt", 2)
