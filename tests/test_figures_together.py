@@ -17,7 +17,7 @@ from matplotlib.patches import Circle, Polygon
 import snrgain
 from snrgain.outputs import plots, report
 from snrgain.outputs.siteplan import plan_of, plan_unit
-from snrgain.outputs.style import TOL_MUTED, listening_order, looks_of
+from snrgain.outputs.style import ANTENNA_COLORS, listening_order, looks_of
 from snrgain.scenario import load, read_source
 from snrgain.units import FT_PER_M
 
@@ -100,7 +100,7 @@ def test_families_share_a_line_style_and_targets_never_take_an_antenna_colour(dr
         for b in r.antennas:
             same = (looks[a.name].linestyle, looks[a.name].marker) == (looks[b.name].linestyle, looks[b.name].marker)
             assert same == (fam[a.name] == fam[b.name]), (a.name, b.name)
-    antenna_colours = {_hex(c) for c in TOL_MUTED} | {"#000000"}
+    antenna_colours = {_hex(c) for c in ANTENNA_COLORS} | {"#000000"}
     fig = plots.ranking_chart(r)
     handles, labels = fig.axes[0].get_legend_handles_labels()
     swatches = [h.patches[0] for h, lab in zip(handles, labels) if lab in {t["name"] for t in r.targets}]
@@ -323,3 +323,17 @@ def test_results_carry_the_whole_site_plan_for_python_use():
     assert plan["unit"] == "ft" and plan["keep_out"] and plan["sources"]
     html = report.render(r)
     assert "placed noise sources and every antenna as built, to scale in feet" in html
+
+
+def test_two_antennas_never_look_alike_below_32():
+    """Two switched four-squares (eight states of one family) and more: every antenna's look (colour, line style,
+    marker, width) is its own; with nine colours the tenth antenna of a family took the first's look, and a state at
+    +6.0 dB could not be told from one at -21.7 dB on the hours figure."""
+    from snrgain.outputs.style import antenna_looks
+
+    for n in (10, 17, 31):
+        names = [f"a{i}" for i in range(n)]
+        families = ["vertical"] + ["phased-verticals"] * (n - 1)
+        looks = antenna_looks(names, families)
+        seen = {(lk.color, str(lk.linestyle), lk.marker, lk.linewidth) for lk in looks.values()}
+        assert len(seen) == n

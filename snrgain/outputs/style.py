@@ -36,6 +36,13 @@ TOL_MUTED = (
 )
 """Tol's muted qualitative colours (Tol 2021), dark and light alternating."""
 
+TOL_BRIGHT = ("#4477AA", "#EE6677", "#228833", "#CCBB44", "#66CCEE", "#AA3377", "#BBBBBB")
+"""Tol's bright qualitative colours (Tol 2021): the antennas' colours after the muted ones."""
+
+ANTENNA_COLORS = TOL_MUTED + TOL_BRIGHT
+"""The candidates' colours in the scenario's order (the reference's is REFERENCE_COLOR): 16 before one repeats; a
+repeat is drawn thinner (:func:`antenna_looks`), so two antennas of one family never look alike below 32."""
+
 FAMILY_LINESTYLES = (
     "-",
     (0, (6, 2)),
@@ -82,12 +89,13 @@ def antenna_looks(names, families) -> dict[str, Look]:
     out = {}
     for k, (name, fam) in enumerate(zip(names, families)):
         j = order.index(fam)
-        color = REFERENCE_COLOR if k == 0 else TOL_MUTED[(k - 1) % len(TOL_MUTED)]
+        color = REFERENCE_COLOR if k == 0 else ANTENNA_COLORS[(k - 1) % len(ANTENNA_COLORS)]
+        again = k > 0 and ((k - 1) // len(ANTENNA_COLORS)) % 2 == 1  # the colours' second round: thinner
         out[name] = Look(
             color,
             FAMILY_LINESTYLES[j % len(FAMILY_LINESTYLES)],
             FAMILY_MARKERS[j % len(FAMILY_MARKERS)],
-            2.2 if k == 0 else 1.8,
+            2.2 if k == 0 else 1.0 if again else 1.8,
         )
     return out
 
