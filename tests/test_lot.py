@@ -384,3 +384,19 @@ def test_the_ranking_figure_says_a_best_below_the_reference_so():
     texts = [t.get_text() for ax in fig.axes for t in ax.texts]
     assert sum(x.endswith("  best, below the reference") for x in texts) == sum(b <= 0 for b in best)
     assert sum(x.endswith("  best") for x in texts) == sum(b > 0 for b in best)
+
+
+@pytest.mark.parametrize("elevation, said", [("[19.5, 20.5]", "19.5-20.5 deg elevation"), ("[5, 25]", "5-25 deg")])
+def test_a_narrow_elevation_range_keeps_its_decimal(elevation, said):
+    """A target's elevations of 19.5-20.5 deg read "20-20 deg elevation" in its table's heading."""
+    import io
+
+    from rich.console import Console
+
+    from snrgain.outputs.output import ranking_table
+
+    text = BASE.format(extra_site="", candidates="").replace("elevation = [10, 25]", f"elevation = {elevation}", 1)
+    assert f"elevation = {elevation}" in text
+    console = Console(width=200, record=True, file=io.StringIO())
+    console.print(ranking_table(snrgain.evaluate(text)))
+    assert said in console.export_text()

@@ -223,7 +223,10 @@ def target_table(r: Results, i: int, lab=None):
 
     lab = labelled(r) if lab is None else lab
     t = r.targets[i]
-    where = f"{t['bearing_deg']:.0f} deg, {t['elevation_min_deg']:.0f}-{t['elevation_max_deg']:.0f} deg elevation"
+    lo, hi = t["elevation_min_deg"], t["elevation_max_deg"]
+    digits = 1 if 0 < hi - lo < 2 else 0  # a narrow range keeps a decimal (19.5-20.5, not 20-20; 4.5-5.5, not 4-6)
+    span = f"{lo:.{digits}f}" if f"{lo:.{digits}f}" == f"{hi:.{digits}f}" else f"{lo:.{digits}f}-{hi:.{digits}f}"
+    where = f"{t['bearing_deg']:.0f} deg, {span} deg elevation"
     if t.get("distance_km"):
         where += f", {t['distance_km']:.0f} km"
     when = f"months {', '.join(str(m) for m in t['months'])}; {hours_text(t['utc_hours'])}"
@@ -533,7 +536,8 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"{how}; feed impedances {z} ohm")
             if b["feed"] == "lines":
                 cur = ", ".join(
-                    f"{m:.2f} at {lag:.0f} deg" for m, lag in zip(b["current_magnitudes"], b["current_lags_deg"])
+                    f"{m:.2f} at {round(lag) % 360:.0f} deg"  # 359.7 deg reads 0, not 360
+                    for m, lag in zip(b["current_magnitudes"], b["current_lags_deg"])
                 )
                 bits.append(f"element currents (lag) {cur}")
         if b.get("setting"):  # two antennas through a phase and amplitude unit
