@@ -18,8 +18,9 @@ A, B = "Beverage Europe", "TX vertical"
 HOURS = [0, 2, 4]
 
 
-def _logs(tmp_path, truth_db: float, seed: int, stations: int = 3):
-    """Logs synthesised from the pipeline's own A - B per target and hour at a known man-made offset."""
+def _logs(tmp_path, truth_db: float, seed: int, stations: int = 3, europe_short_db: float = 0.0):
+    """Logs synthesised from the pipeline's own A - B per target and hour at a known man-made offset (toward Europe
+    ``europe_short_db`` less: an antenna short in one direction, which no site level explains)."""
     from snrgain.model.pipeline import evaluate
     from snrgain.scenario import load, read_source
 
@@ -31,7 +32,7 @@ def _logs(tmp_path, truth_db: float, seed: int, stations: int = 3):
         a, b = vf.synthesise(
             site_lat=44.21,
             site_lon=-71.32,
-            targets=[(45, diff[("Europe", h)]), (300, diff[("Pacific", h)])],
+            targets=[(45, diff[("Europe", h)] - europe_short_db), (300, diff[("Pacific", h)])],
             start=f"2026-12-02 {h:02d}:00:00",
             hours=1,
             stations_per_target=stations,
@@ -60,6 +61,27 @@ def test_known_offset_recovered_within_tolerance(tmp_path):
         assert f.rms_after_db <= f.rms_before_db + 1e-9
         covered += abs(f.offset_db - truth) <= f.tolerance_db
     assert covered >= 5, covered
+
+
+def test_a_shortfall_toward_one_target_is_not_fitted_as_the_sites_level(tmp_path):
+    """Pairs 6 dB short toward Europe and as predicted toward the Pacific: an antenna's fault (its termination, its
+    feed), which a man-made level moving both alike cannot explain. The fit was written as offset -26.8 dB "+-0.7 dB"
+    (and, with --fit-ground, salt marsh) while 3 dB rms of misfit stayed; now the chi-square of what is left says the
+    level does not explain the pairs, and no copy is written. The same pairs without the shortfall fit."""
+    from snrgain.cli.main import cli
+
+    pa, pb = _logs(tmp_path, 0.0, seed=11, stations=3, europe_short_db=6.0)
+    r = vf.verify(WREN, a_name=A, b_name=B, log_a=pa, log_b=pb, n_boot=500, seed=1, predict_too=False)
+    f = learn.fit_offset(r, WREN)
+    assert not f.identifiable and f.notes[0].startswith("the site's man-made level does not explain the pairs")
+    assert f.rms_after_db > 1.5
+    dest = tmp_path / "w.toml"
+    args = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(pa), "--log-b", str(pb), "--write", str(dest)]
+    out = CliRunner().invoke(cli, args)
+    assert out.exit_code != 0 and "does not explain the pairs" in out.output and not dest.exists()
+    fine_a, fine_b = _logs(tmp_path, 0.0, seed=11, stations=3)
+    r = vf.verify(WREN, a_name=A, b_name=B, log_a=fine_a, log_b=fine_b, n_boot=500, seed=1, predict_too=False)
+    assert learn.fit_offset(r, WREN).identifiable
 
 
 def test_pairs_that_cannot_tell_the_level_say_so(tmp_path):

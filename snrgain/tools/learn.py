@@ -373,12 +373,16 @@ def fit_offset(
         )
     else:
         tol = Z90 / np.sqrt(info)
+    p1 = one["after"]
+    unexplained = misfit_note(p1, meas, sigma, fitted=2 if grounds else 1)
+    if unexplained and np.isfinite(tol):
+        tol = float("inf")  # no level is fitted where the level does not explain the pairs: nothing to write
+        notes.insert(0, unexplained)
     if best <= one["edges"][0] + 0.1 or best >= one["edges"][1] - 0.1:
         notes.append(
             f"the best offset lies at the edge of the search ({one['edges'][0]:+g} to {one['edges'][1]:+g} dB): the "
             "pairs point outside what an offset can explain; check the antennas' names and the scenario's other noise"
         )
-    p1 = one["after"]
     from snrgain.scenario.noise import ManMade
     from snrgain.units import parse_quantity
 
@@ -414,6 +418,34 @@ def fit_offset(
         notes,
         ground_before=ground0,
         ground=best_ground,
+    )
+
+
+MISFIT_P = 0.001
+"""A fit whose groups still differ from its prediction beyond their own spread at this chance (chi-square) does not
+explain them: no level is written."""
+
+
+def misfit_note(predicted, measured, sigma, fitted: int) -> str | None:
+    """Where the fitted prediction leaves the groups further off than their own intervals allow (the chi-square of
+    the weighted residuals over its degrees of freedom, groups less the ``fitted`` parameters, at a chance below
+    MISFIT_P; e.g. Bevington and Robinson (2003), ch. 11): a note saying the site's level does not explain the pairs;
+    None for a fit that does (or too few groups to tell)."""
+    from scipy.stats import chi2
+
+    r = (np.asarray(predicted) - np.asarray(measured)) / np.asarray(sigma)
+    dof = r.size - fitted
+    if dof < 1:
+        return None
+    stat = float(np.sum(r * r))
+    if chi2.sf(stat, dof) >= MISFIT_P:
+        return None
+    rms = float(np.sqrt(np.mean((np.asarray(predicted) - np.asarray(measured)) ** 2)))
+    return (
+        f"the site's man-made level does not explain the pairs: after the fit they still differ from the prediction "
+        f"by {rms:.1f} dB rms, beyond their own intervals (chi-square {stat:.0f} on {dof} degrees of freedom); a "
+        "difference toward one target or at some hours and not others points at an antenna (its termination, feed "
+        "or pattern) rather than at the site's noise: check the antennas before fitting the site"
     )
 
 
