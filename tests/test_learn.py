@@ -232,3 +232,20 @@ def test_a_fitted_level_beyond_p372s_curves_is_said():
     assert "beyond its upper decile (10.6 dB)" in learn.beyond_p372_note("residential", 1.83e6, 11.0)
     assert learn.beyond_p372_note("quiet rural", 1.83e6, -4.0) is None  # within its lower decile, 4.6 dB
     assert "quiet-rural median" in learn.beyond_p372_note("quiet rural", 1.83e6, -5.0)
+
+
+def test_too_few_pairs_an_hour_keeps_the_comparison_and_says_why_nothing_was_fitted(tmp_path):
+    """--fit with fewer pairs per target and hour than --min-pairs printed only the refusal (exit 2) and dropped the
+    whole comparison, though its all-hours rows had their verdicts; now the comparison is printed with the reason
+    the level was not fitted, and --write still refuses, writing nothing."""
+    from snrgain.cli.main import cli
+
+    pa, pb = _logs(tmp_path, 0.0, seed=4, stations=1)
+    base = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(pa), "--log-b", str(pb), "--min-pairs", "500"]
+    out = CliRunner().invoke(cli, [*base, "--fit"])
+    assert out.exit_code == 0, out.output
+    assert "the site learns: not fitted: no target and hour has 500 pairs or more (the most: " in out.output
+    assert "Europe" in out.output  # the comparison stands
+    dest = tmp_path / "w.toml"
+    out = CliRunner().invoke(cli, [*base, "--write", str(dest)])
+    assert out.exit_code != 0 and "no copy written" in out.output and not dest.exists()

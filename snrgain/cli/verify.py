@@ -200,7 +200,12 @@ def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=F
 
     with progress(None, "verify: fitting the site's man-made level"):
         grounds = learn.LAND_GROUNDS if fit_ground else None
-        f = learn.fit_offset(res, scenario, p372_dir=p372_dir, min_pairs=min_pairs, grounds=grounds)
+        try:
+            f = learn.fit_offset(res, scenario, p372_dir=p372_dir, min_pairs=min_pairs, grounds=grounds)
+        except learn.NothingToFit as exc:  # the comparison stands; only the fit has too little to go on
+            if write_to is not None:
+                raise ValueError(f"--write: {exc}; no copy written") from None
+            return {"not_fitted": str(exc)}, ["", f"the site learns: not fitted: {exc}"]
         data, label, base_dir = read_source(Path(scenario))
         moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, ground=f.ground, p372_dir=p372_dir)
     out = {**f.as_dict(), "moves": moved}

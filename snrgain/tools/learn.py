@@ -42,6 +42,12 @@ OFFSET_RANGE_DB = (-40.0, 40.0)
 """The offsets the schema allows [dB] (snrgain.scenario.noise.ManMade.offset)."""
 Z90 = 1.645
 """Standard-normal deviate of a two-sided 90 % interval."""
+
+
+class NothingToFit(ValueError):
+    """Too few pairs in any target and hour to fit the man-made level to (the comparison itself stands)."""
+
+
 MIN_SLOPE = 0.03
 """Below this many dB of predicted difference per dB of man-made offset, the pairs cannot tell the level."""
 
@@ -332,9 +338,10 @@ def fit_offset(
         if g.hour is not None and g.target in targets and g.n >= min_pairs and np.isfinite(g.median_db)
     ]
     if not groups:
-        raise ValueError(
-            f"no target and hour has {min_pairs} pairs or more: nothing to fit the man-made level to (listen longer, "
-            "or lower --min-pairs)"
+        most = max((g.n for g in result.groups if g.hour is not None and g.target in targets), default=0)
+        raise NothingToFit(
+            f"no target and hour has {min_pairs} pairs or more (the most: {most}): nothing to fit the man-made level "
+            "to, hour by hour (listen longer, or lower --min-pairs)"
         )
     meas = np.array([g.median_db for g in groups])
     width = np.array([(g.high_db - g.low_db) if np.isfinite(g.high_db - g.low_db) else np.nan for g in groups])
