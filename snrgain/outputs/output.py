@@ -154,6 +154,16 @@ def ground_text(site: dict) -> str:
     return f"{name}{sigma * 1e3:.3g} mS/m, relative permittivity {eps:.3g}"
 
 
+def levels_as_read(r: Results) -> dict[str, str]:
+    """Each local source whose level was read on an antenna, by name: that reading as written ("read S8, -79.0 dBm,
+    on TX vertical"), which the header and the report give beside its Fa on P.372's reference monopole."""
+    return {
+        s["name"]: f"read {s_units(s['level_dbm'])}, {s['level_dbm']:.1f} dBm, on {s['read_on']}"
+        for s in r.local_sources
+        if s.get("level_dbm") is not None
+    }
+
+
 def _header(r: Results):
     from rich.text import Text
 
@@ -162,15 +172,12 @@ def _header(r: Results):
     head.append(f"  {r.site['latitude_deg']:.2f}, {r.site['longitude_deg']:.2f}  ground: {ground_text(r.site)}\n")
     head.append(f"{r.freq_hz / 1e6:g} MHz in {r.bandwidth_hz:g} Hz; reference: {r.reference.name}\n")
     noise_bits = []
-    read = {s["name"]: s for s in r.local_sources if s.get("level_dbm") is not None}
+    read = levels_as_read(r)
     for name, c in r.noise.components.items():
         fa = c["fa_db"]
         finite = fa[np.isfinite(fa)]
         some_screened = " (screened at some hours)" if 0 < finite.size < fa.size else ""
-        as_read = ""
-        if name in read:  # a level read on an antenna: as written there (its Fa is what the monopole would read)
-            level = read[name]["level_dbm"]
-            as_read = f" (read {s_units(level)}, {level:.1f} dBm, on {read[name]['read_on']})"
+        as_read = f" ({read[name]})" if name in read else ""
         if finite.size == 0:
             noise_bits.append(f"{name}: screened")
         elif np.ptp(finite) < 0.05:

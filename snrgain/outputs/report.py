@@ -148,14 +148,13 @@ def _summary(r) -> str:
         "<table><tr><th class='name'>Noise component (P.372 reference monopole)</th><th>Fa min (dB)</th>"
         "<th>Fa max (dB)</th><th>upper decile (dB)</th><th>lower decile (dB)</th></tr>"
     )
-    read = {s["name"]: s for s in r.local_sources if s.get("level_dbm") is not None}
+    from snrgain.outputs.output import levels_as_read
+
+    read = levels_as_read(r)
     for name, c in r.noise.components.items():
         fa = c["fa_db"][np.isfinite(c["fa_db"])]
         lo, hi = (fa.min(), fa.max()) if fa.size else (np.nan, np.nan)
-        label = _e(name)
-        if name in read:  # a level read on an antenna: as written there
-            lv = read[name]["level_dbm"]
-            label += f" (read {s_units(lv)}, {lv:.1f} dBm, on {_e(read[name]['read_on'])})"
+        label = _e(name) + (f" ({_e(read[name])})" if name in read else "")  # a level read on an antenna, as written
         out.append(
             f"<tr><td class='name'>{label}</td><td>{_f(lo, '{:.1f}')}</td><td>{_f(hi, '{:.1f}')}</td>"
             f"<td>{_f(np.nanmean(c['du_db']), '{:.1f}')}</td><td>{_f(np.nanmean(c['dl_db']), '{:.1f}')}</td></tr>"
@@ -289,9 +288,10 @@ def _plan(r) -> str:
         f"({PLAN_WORTH}), in this order:</p><ol>"
     ]
 
+    fragile = {n: rests_on_place_text(r, n) for n in p.antennas}
     out += [
         f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {signed_text(a)} dB{_e(also_build(r, k))}"
-        + (f"<br><b>{_e(rests_on_place_text(r, n))}</b>" if rests_on_place_text(r, n) else "")
+        + (f"<br><b>{_e(fragile[n])}</b>" if fragile[n] else "")
         + "</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
     ]

@@ -184,6 +184,18 @@ class Chain:
         return _preamp_rule(self)(antenna_temperature_k, margin_db)
 
 
+def _around_preamp(chain: Chain) -> tuple[float, float, float]:
+    """(G_b, F_a, F_lim) of a chain with a preamplifier, by Friis's formula: the gain of the stages before it, the
+    noise factor of those after it, and the noise factor the chain tends to as the preamplifier's gain grows,
+    F_b + (F_p - 1) / G_b (F_p alone with nothing before it)."""
+    before = list(chain.stages[: chain.preamp_index])
+    after = list(chain.stages[chain.preamp_index + 1 :])
+    f_b, g_b = friis(before) if before else (1.0, 1.0)
+    f_a = friis(after)[0] if after else 1.0
+    f_p = chain.stages[chain.preamp_index].noise_factor
+    return g_b, f_a, (f_b if before else f_p) + ((f_p - 1) / g_b if before else 0.0)
+
+
 def _preamp_rule(chain: Chain):
     """rule(T_A, margin_db) -> :meth:`Chain.preamp_gain_for_margin`: what depends on the chain alone (its noise
     factor at 0 dB of preamplifier gain, the floor the gain tends to, the stages' gains and factors around the
@@ -191,12 +203,7 @@ def _preamp_rule(chain: Chain):
     if chain.preamp_index is None:
         raise ValueError("the chain has no preamplifier")
     f_zero = chain.with_preamp_gain(0.0).noise_factor
-    before = list(chain.stages[: chain.preamp_index])
-    after = list(chain.stages[chain.preamp_index + 1 :])
-    f_b, g_b = friis(before) if before else (1.0, 1.0)
-    f_a = friis(after)[0] if after else 1.0
-    f_p = chain.stages[chain.preamp_index].noise_factor
-    floor = (f_b if before else f_p) + ((f_p - 1) / g_b if before else 0.0)
+    g_b, f_a, floor = _around_preamp(chain)
 
     def rule(antenna_temperature_k: float, margin_db: float) -> float | None:
         need_f = antenna_temperature_k / (T0_K * 10 ** (margin_db / 10))
@@ -244,11 +251,7 @@ def best_effort_preamp(chain: Chain, antenna_temperature_k) -> BestEffortPreamp 
     options = options or [(pos, with_suggested_preamp(chain, pos)) for pos in ("receiver", "antenna")]
     best = None
     for position, c in options:
-        before, after = list(c.stages[: c.preamp_index]), list(c.stages[c.preamp_index + 1 :])
-        f_b, g_b = friis(before) if before else (1.0, 1.0)
-        f_a = friis(after)[0] if after else 1.0
-        f_p = c.stages[c.preamp_index].noise_factor
-        limit = f_b + (f_p - 1) / g_b if before else f_p
+        g_b, f_a, limit = _around_preamp(c)
         g = (f_a - 1) / (g_b * limit * (10 ** (BEST_EFFORT_SHORT_DB / 10) - 1))
         gain_db = float(max(10 * np.log10(g), 0.0)) if g > 0 else 0.0
         if position == "as placed":  # never less than it has

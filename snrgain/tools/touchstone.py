@@ -155,23 +155,27 @@ def _lines(text: str) -> list[str]:
     return re.split(r"\r\n|\r|\n", text)
 
 
-def _data_lines(text: str) -> list[tuple[int, str]]:
-    """(line number, text without its comment) of each data line: comments (``!``), the option line (``#``) and
-    Touchstone 2's keyword lines (``[...]``) passed over.  A 1-port point takes one line."""
+def _stripped_lines(text: str) -> list[tuple[int, str]]:
+    """(line number, text without its comment ``!``) of each line that holds anything else."""
     out = []
     for number, line in enumerate(_lines(text), start=1):
         data = line.split("!", 1)[0].strip()
-        if data and not data.startswith(("#", "[")):
+        if data:
             out.append((number, data))
     return out
+
+
+def _data_lines(text: str) -> list[tuple[int, str]]:
+    """(line number, text without its comment) of each data line: comments (``!``), the option line (``#``) and
+    Touchstone 2's keyword lines (``[...]``) passed over.  A 1-port point takes one line."""
+    return [(number, data) for number, data in _stripped_lines(text) if not data.startswith(("#", "["))]
 
 
 def _check_reference(p: Path, text: str) -> None:
     """SweepError naming the line unless every reference resistance the file gives (the option line's ``R``,
     Touchstone 2's ``[Reference]``) is a number more than 0 ohm (scikit-rf turned R 0 into NaN and R -50 into
     infinities, and reported neither)."""
-    for number, line in enumerate(_lines(text), start=1):
-        data = line.split("!", 1)[0].strip()
+    for number, data in _stripped_lines(text):
         words = data.split()
         if data.startswith("#"):
             upper = [w.upper() for w in data[1:].split()]
