@@ -173,16 +173,14 @@ def test_offset_moves_the_man_made_level_by_its_db():
     assert all(np.allclose(p[1][k], p[0][k]) for k in other)
 
 
-def test_ground_class_and_offset_recovered_together(tmp_path):
-    """Logs from the site as if its soil were very dry (1e-4 S/m; the file says moist loam) and its man-made level
-    5 dB under the curve: the ground class of least misfit is the very dry one, the offset within its tolerance
-    (or 0.3 dB), and the written copy holds both, ranks without warnings and reports each one's move."""
-    from snrgain.cli.main import cli
+def _logs_at(tmp_path, ground: str, offset_db: float) -> list[str]:
+    """Paired logs of Wren Corner's antennas A and B as the site would give them were its ground ``ground`` and its
+    man-made level ``offset_db`` off the curve; the verify command's arguments that read them."""
     from snrgain.model.pipeline import evaluate
     from snrgain.scenario import load, read_source
 
     data, label, base = read_source(Path(WREN))
-    d = learn.with_ground(learn.with_offset(data, -5.0), "very dry ground")
+    d = learn.with_ground(learn.with_offset(data, offset_db), ground)
     d = vf.scenario_copy(d, A, B, [12], [h + 0.5 for h in HOURS])
     diff = learn._hourly_difference(evaluate(load(d, base_dir=base, label=label)), A, B)
     la, lb = [], []
@@ -200,8 +198,17 @@ def test_ground_class_and_offset_recovered_together(tmp_path):
         lb.append(b)
     (tmp_path / "a.txt").write_text("".join(la))
     (tmp_path / "b.txt").write_text("".join(lb))
+    return ["verify", WREN, "--a", A, "--b", B, "--log-a", str(tmp_path / "a.txt"), "--log-b", str(tmp_path / "b.txt")]
+
+
+def test_ground_class_and_offset_recovered_together(tmp_path):
+    """Logs from the site as if its soil were very dry (1e-4 S/m; the file says moist loam) and its man-made level
+    5 dB under the curve: the ground class of least misfit is the very dry one, the offset within its tolerance
+    (or 0.3 dB), and the written copy holds both, ranks without warnings and reports each one's move."""
+    from snrgain.cli.main import cli
+
+    args = _logs_at(tmp_path, "very dry ground", -5.0)
     dest = tmp_path / "learned.toml"
-    args = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(tmp_path / "a.txt"), "--log-b", str(tmp_path / "b.txt")]
     out = CliRunner().invoke(cli, args + ["--fit-ground", "--write", str(dest), "--format", "json"])
     assert out.exit_code == 0, out.output
     import json
@@ -216,6 +223,36 @@ def test_ground_class_and_offset_recovered_together(tmp_path):
     assert site["ground"] == "very dry ground" and site["name"] == "Wren Corner"
     rank = CliRunner().invoke(cli, ["rank", str(dest)])
     assert rank.exit_code == 0 and not _warnings_beside_local(rank.output)
+
+
+def test_a_kept_ground_is_not_written_again_as_fitted(tmp_path, monkeypatch):
+    """verify --fit-ground --write where the fit keeps the site's own class (learn.ground_kept): the copy keeps the
+    site's ground line as it was (it was written again, commented "the class that fits the paired decodes best"), the
+    offset is written, and the table says the ground was kept.  The fit itself is held by the tests around this one;
+    here it is given, so the test reads only what the command does with it."""
+    from snrgain.cli.main import cli
+
+    given = learn.OffsetFit(0.0, -3.0, 0.8, 1.0, 0.2, [], 1, ["x"], ground_before="moist loam", ground="moist loam")
+    monkeypatch.setattr(learn, "fit_offset", lambda *a, **k: given)
+    monkeypatch.setattr(learn, "moves", lambda *a, **k: [])
+    pa, pb = _logs(tmp_path, 0.0, seed=4, stations=1)
+    dest = tmp_path / "learned.toml"
+    args = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(pa), "--log-b", str(pb), "--fit-ground"]
+    out = CliRunner().invoke(cli, [*args, "--write", str(dest)])
+    assert out.exit_code == 0, out.output
+    assert "ground moist loam kept (no other class fits the pairs clearly better)" in out.output
+    text = dest.read_text()
+    assert "verify --fit-ground" not in text and 'offset = "-3.0 dB"' in text
+    assert tomllib.loads(text)["site"]["ground"] == tomllib.loads(Path(WREN).read_text())["site"]["ground"]
+
+
+def test_ground_kept_weighs_the_chi_square_between_the_classes():
+    costs = {"moist loam": 10.0, "sandy soil": 8.0, "salt marsh": 30.0}
+    note = learn.ground_kept("moist loam", "sandy soil", costs)
+    assert "chi-square 2.0 less, under 2.71" in note and "moist loam is kept" in note
+    assert learn.ground_kept("moist loam", "sandy soil", {**costs, "sandy soil": 7.2}) is None  # 2.8 less: written
+    assert learn.ground_kept("moist loam", "moist loam", costs) is None
+    assert learn.ground_kept("sea water", "sandy soil", costs) is None  # the site's own was not tried
 
 
 def test_a_fitted_level_beyond_p372s_curves_is_said():

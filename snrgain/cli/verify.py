@@ -215,7 +215,7 @@ def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=F
             raise ValueError(f"--write: {f.notes[0]}; no copy written")
         note = f"fitted to {sum(g['n_pairs'] for g in f.groups)} paired decodes, +-{f.tolerance_db:.1f} dB (90 %)"
         text = learn.write_offset(read_scenario_text(scenario), f.offset_db, note)
-        if f.ground is not None:
+        if f.ground is not None and f.ground != f.ground_before:
             text = learn.write_ground(
                 text, f.ground, "the class that fits the paired decodes best (verify --fit-ground)"
             )

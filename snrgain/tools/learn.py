@@ -293,6 +293,29 @@ LAND_GROUNDS = (
 """The named ground classes a site on land may be (snrgain.physics.ground.GROUND_TYPES less the waters)."""
 
 
+GROUND_CHI2 = 2.71
+"""How much less chi-square another ground class must leave than the site's own (each at its best offset) before the
+fit writes it: the 90 % point of chi-square with one degree of freedom, the likelihood-ratio test of S. S. Wilks,
+"The large-sample distribution of the likelihood ratio for testing composite hypotheses", Ann. Math. Statist. 9
+(1938), taken for the one choice the class adds (an approximation for a choice among a few classes)."""
+
+
+def ground_kept(site: str | None, best: str, costs: dict[str, float]) -> str | None:
+    """Where the class of least misfit fits the pairs hardly better than the site's own ground (less than
+    GROUND_CHI2 of chi-square between them), a note that the site's ground is kept; None where the best class is
+    the site's, fits clearly better, or the site's own was not among those tried."""
+    if site is None or site == best or site not in costs:
+        return None
+    gain = costs[site] - costs[best]
+    if gain >= GROUND_CHI2:
+        return None
+    return (
+        f"{best} fits the pairs only a little better than the site's {site} (chi-square {gain:.1f} less, under "
+        f"{GROUND_CHI2:g}, the 90 % point with one degree of freedom): the pairs do not tell the ground classes "
+        f"apart, so the site's {site} is kept"
+    )
+
+
 def nominal_only(data: dict) -> dict:
     """The scenario's tables without the spreads: a fit reads the nominal SNR gains per hour, which the spreads do
     not change (the same to the last bit, measured), at a third of the run's time."""
@@ -355,6 +378,10 @@ def fit_offset(
         for gname in grounds:
             tried[gname] = _fit_one(with_ground(data, gname), label, base_dir, result, groups, meas, sigma, p372_dir)
         best_ground = min(tried, key=lambda k: tried[k]["cost"])
+        kept = ground_kept(ground0, best_ground, {k: v["cost"] for k, v in tried.items()})
+        if kept:
+            notes.append(kept)
+            best_ground = ground0
         one = tried[best_ground]
         rms = {k: float(np.sqrt(np.mean((v["after"] - meas) ** 2))) for k, v in tried.items()}
         notes.append(
@@ -515,7 +542,9 @@ def fit_lines(f: OffsetFit) -> list[str]:
         f"  offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, {tol}; rms misfit {f.rms_before_db:.1f} -> "
         f"{f.rms_after_db:.1f} dB over {len(f.groups)} group(s), {f.runs} pipeline runs",
     ]
-    if f.ground is not None:
+    if f.ground is not None and f.ground == f.ground_before:
+        out.append(f"  ground {f.ground} kept (no other class fits the pairs clearly better)")
+    elif f.ground is not None:
         out.append(f"  ground {f.ground_before} -> {f.ground} (the class whose best offset fits best)")
     wt = max((len(g["target"]) for g in f.groups), default=0)
     for g in f.groups:
