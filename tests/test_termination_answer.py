@@ -408,3 +408,33 @@ def test_rank_build_says_a_resistor_under_the_sky_is_an_end_of_the_range():
     text = " ".join(res.stdout.split())
     assert "no optimum of SNR gain toward Japan within the 30-" in text
     assert "end, 30 ohm" in text and "so that end is given, not an optimum" in text
+
+
+def test_a_resistor_is_not_tuned_toward_a_target_outside_the_wires_main_lobe(tmp_path):
+    # A reviewer's reversible Beverage: its south-west state (225 deg) was given a near-short, 33 ohm, tuned for SNR
+    # toward the nearest target, South America at 152 deg, 73 deg off the wire and in a side lobe.  Now a target
+    # more than OFF_LOBE_DB under the peak of the wire's own azimuth pattern is not tuned toward: the wire keeps its
+    # resistor of best RDF (the one `wire` gives for auto_for = "rdf"), and a warning says why; the same wire turned
+    # toward that target is still tuned under the sky.
+    import snrgain
+    from snrgain.model.steering import OFF_LOBE_DB
+    from snrgain.outputs.messages import notice_text
+    from snrgain.scenario import load
+
+    text = SHORT_BEVERAGE_80.replace('name = "Europe"\nbearing = 45', 'name = "South America"\nbearing = 152')
+    text = text.replace('length = "65 m"', 'length = "240 m"').replace("bearing = 33", "bearing = 225")
+    path = tmp_path / "site.toml"
+    path.write_text(text)
+    r = snrgain.evaluate(load(path))
+    (n,) = [n for n in r.notices if n.code == "termination-off-target"]
+    assert n.antenna == "short Beverage" and n.values["target"] == "South America"
+    assert n.values["off_deg"] == pytest.approx(73.0) and n.values["below_db"] > OFF_LOBE_DB
+    sc = load(path)
+    rdf = wiredesign.termination_answer(sc.candidates[0], sc.freq_hz, "rdf").best_ohm
+    assert r.antenna("short Beverage").build["termination_ohm"] == pytest.approx(rdf)
+    assert "no target lies in its main lobe (the nearest, South America at 152 deg, is 73 deg off" in notice_text(n)
+
+    path.write_text(text.replace("bearing = 225", "bearing = 150"))
+    r = snrgain.evaluate(load(path))
+    assert not [n for n in r.notices if n.code == "termination-off-target"]
+    assert r.antenna("short Beverage").build["termination_answer"]["criterion"] == "snr"

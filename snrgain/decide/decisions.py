@@ -93,6 +93,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
                 out.append(Notice("far-ground-too-high", ant.name, {"far_ground_ohm": far, "z0_ohm": z0}))
     out.extend(local_source_notices(sc, antennas))
     out.extend(fragile_termination_notices(sc))
+    out.extend(off_target_termination_notices(sc))
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
     out.extend(phasing_tolerance_notices(sc))
@@ -314,6 +315,25 @@ def fragile_termination_notices(sc: Scenario) -> list[Notice]:
                 },
             )
         )
+    return out
+
+
+def off_target_termination_notices(sc: Scenario) -> list[Notice]:
+    """``termination-off-target`` (target, target_bearing_deg, bearing_deg, off_deg, below_db) for each candidate
+    whose resistor was to be chosen for SNR gain under the site's noise (termination = "auto", auto_for = "snr") but
+    whose nearest target lies outside its main lobe (snrgain.model.steering.target_outside_lobe): the steering left
+    it the resistor of best RDF, and the user is told why."""
+    from snrgain.model.steering import nearest_target, target_outside_lobe
+
+    out = []
+    for ant in sc.candidates:
+        if not hasattr(ant, "termination_under_sky") or not getattr(ant, "uses_sky", False):
+            continue
+        if getattr(ant, "sky_termination", None) is not None:
+            continue
+        off = target_outside_lobe(sc, ant, nearest_target(sc, ant.params.bearing))
+        if off is not None:
+            out.append(Notice("termination-off-target", ant.name, off))
     return out
 
 

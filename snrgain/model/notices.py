@@ -35,6 +35,8 @@ class Notice:
     safer_words, over_safer_db, front_to_back_db, front_to_back_safer_db: a resistor chosen for SNR that beats the
     matched resistor or the one of best RDF by under 1 dB while giving up 10 dB of front-to-back per dB, at least
     3 dB; snrgain.decide.decisions),
+    ``termination-off-target`` (target, target_bearing_deg, bearing_deg, off_deg, below_db: a resistor to be chosen
+    for SNR whose nearest target lies outside the antenna's main lobe, left at best RDF; snrgain.model.steering),
     ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and
     front_to_back_drawn_db: their 10, 50 and 90 % points with the phasing lines cut with a cable's usual errors,
     longest_delay_ns, longest_error_ns, velocity_factor_error, length_error_m, draws: an array whose figures rest on

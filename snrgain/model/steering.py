@@ -21,6 +21,39 @@ def nearest_target(sc: Scenario, bearing_rad: float, both_ways: bool = False) ->
     return int(np.argmin(off))
 
 
+OFF_LOBE_DB = 10.0
+"""A target whose gain lies more than this [dB] under the peak of the antenna's azimuth pattern (at the target's own
+elevations, with the resistor of best RDF) is outside its main lobe: a resistor chosen under the sky is not tuned
+toward it (a near-short that helps a side lobe is not what a builder fits to a wire that faces elsewhere)."""
+
+
+def target_outside_lobe(sc: Scenario, ant, ti: int) -> dict | None:
+    """{target, target_bearing_deg, bearing_deg, off_deg, below_db} where target ``ti`` lies outside ``ant``'s main
+    lobe (OFF_LOBE_DB under the peak of its azimuth pattern at the target's elevations, weighted as the target
+    weighs them); None where it lies within it."""
+    t = sc.targets[ti]
+    az = np.radians(np.arange(0.0, 360.0, 1.0))
+    el = np.asarray(t.elevation_rad, dtype=float)
+    w = np.asarray(t.weight, dtype=float)
+    cut = ant.gain_linear(
+        sc.freq_hz, np.broadcast_to(az, (el.size, az.size)), np.broadcast_to(el[:, None], (el.size, az.size))
+    )
+    toward = float(np.sum(w * ant.gain_linear(sc.freq_hz, t.azimuth_rad, el)))
+    peak = float(np.sum(w * np.max(cut, axis=1)))
+    below = 10.0 * np.log10(max(peak, 1e-300) / max(toward, 1e-300))
+    if below <= OFF_LOBE_DB:
+        return None
+    bearing = float(np.degrees(getattr(ant, "bearing_rad", getattr(ant.params, "bearing", 0.0)))) % 360.0
+    target = float(np.degrees(t.bearing_rad)) % 360.0
+    return {
+        "target": t.name,
+        "target_bearing_deg": target,
+        "bearing_deg": bearing,
+        "off_deg": abs((target - bearing + 180.0) % 360.0 - 180.0),
+        "below_db": float(below),
+    }
+
+
 def with_candidates(sc: Scenario, candidates, k: int) -> Scenario:
     """The scenario holding its reference and ``candidates``, each on the chain of the scenario's antenna ``k``
     (a sweep's or a layout's designs of one candidate, a phasing unit's trial settings)."""
@@ -201,6 +234,8 @@ def steer(sc: Scenario, grid, skies) -> Scenario:
             if ref is None:
                 ref = products(sc, [ants[0]], grid, skies)
             ti = nearest_target(sc, ant.params.bearing)
+            if target_outside_lobe(sc, bare(ant), ti) is not None:
+                continue  # its resistor of best RDF, as it stands (decisions: termination-off-target)
             score = TerminationScore(sc, grid, skies, ref, put, k, ti)
             ants[k] = put(bare(ant).termination_under_sky(sc.freq_hz, score, sc.targets[ti].name))
             continue

@@ -84,6 +84,13 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
             "element's signal by its phase) or its delays (positive: the signal comes later)"
         )
+    if n.code == "termination-off-target":
+        return (
+            f"{n.antenna}: no target lies in its main lobe (the nearest, {v['target']} at "
+            f"{v['target_bearing_deg']:.0f} deg, is {v['off_deg']:.0f} deg off its bearing {v['bearing_deg']:.0f} deg "
+            f"and {v['below_db']:.0f} dB under its peak), so its resistor is the one of best RDF toward its bearing, "
+            "not one tuned for a side lobe toward that target"
+        )
     if n.code == "far-ground-too-high":
         resistor = v["z0_ohm"] - v["far_ground_ohm"]
         head = f"{n.antenna}: its far ground ({v['far_ground_ohm']:.0f} ohm) "
