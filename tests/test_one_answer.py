@@ -309,3 +309,23 @@ def test_a_unit_over_a_wire_whose_resistor_is_set_under_the_sky():
     unit, a = set_.antennas[names.index("combo")], set_.antennas[names.index("A")]
     assert getattr(a, "sky_termination", None) is not None  # the wire's resistor was chosen under the sky
     assert any(e is a for e in unit.elements)
+
+
+def test_why_the_plan_passes_a_targets_best_is_said_on_the_plans_own_scale():
+    # A reviewer's contest site: "Europe: the best (+1.0 dB) is not in the plan because building it adds less than
+    # 0.1 dB" read as a verdict on the antenna, while it was the plan's power-ratio worth, which Japan's +12 dB
+    # outweighed; and a target served by an antenna as good as its best to the printed 0.1 dB got the same note,
+    # "outweigh its 0.0 dB".  The note now says how the plan weighs targets and what the target loses, and a gain
+    # equal to the best's as printed is said as that.
+    from snrgain.outputs.messages import plan_not_best_text
+
+    little = {"best": "bev", "best_db": 1.04, "served_by": "tx", "served_db": 0.0, "reason": "adds_little"}
+    text = plan_not_best_text("Europe", little)
+    assert "the plan weighs targets as power ratios" in text and "outweigh its 1.0 dB here" in text
+    assert text.endswith("Build it too if Europe counts on its own.")
+    tie = {**little, "best_db": 3.52, "served_db": 3.50}
+    assert plan_not_best_text("Europe", tie) == (
+        "Europe: tx serves it (+3.5 dB), within 0.05 dB of the best, bev, which the plan does not build for it."
+    )
+    full = {**little, "reason": "max_antennas"}
+    assert "([plan] max_antennas); tx serves it (+0.0 dB)." in plan_not_best_text("Europe", full)

@@ -12,7 +12,13 @@ from __future__ import annotations
 import numpy as np
 
 from snrgain.antennas import FAMILIES
+from snrgain.decide.build import nearest_standard_ohm
 from snrgain.decide.plan import Plan, station_plan
+from snrgain.model.notices import Notice
+
+RESISTOR_SPREAD = 1.25
+"""Resistors of one antenna that differ by more than this ratio between the bands it serves are said
+(:func:`resistor_notices`): the antenna is built once, with one resistor, unless it is switched per band."""
 
 
 def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
@@ -50,3 +56,73 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
         groups=[None] + [groups[n] for n in names[1:]],
     )
     return plan, tuple(columns)
+
+
+def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
+    """``resistor-per-band`` (bands: [{band, termination_ohm, criterion, target, loss_db}], common_ohm,
+    common_standard_ohm, worst_db, worst_band) for each antenna of the plan that serves targets on several bands
+    with resistors more than RESISTOR_SPREAD apart: the plan builds it once, so the one resistor that loses least at
+    worst over those bands (each band's criterion read off its curve, interpolated in log R within the range every
+    band searched) is given with what it costs on each, beside each band's own."""
+    served: dict[str, set[str]] = {}
+    for c, services in plan.by_target.items():
+        for sv in services:
+            served.setdefault(sv.antenna, set()).add(columns[c][0])
+    out = []
+    for name, on in served.items():
+        answers = []
+        for band, r in bands:
+            if band not in on:
+                continue
+            a = next((x for x in r.candidates if x.name == name), None)
+            ans = None if a is None else a.build.get("termination_answer")
+            if ans is None or not ans.get("curve") or a.build.get("termination_given"):
+                continue
+            answers.append((band, ans))
+        if len(answers) < 2:
+            continue
+        ohms = [float(ans["termination_ohm"]) for _, ans in answers]
+        if max(ohms) / min(ohms) <= RESISTOR_SPREAD:
+            continue
+        lo = max(min(ans["curve"]["ohm"]) for _, ans in answers)
+        hi = min(max(ans["curve"]["ohm"]) for _, ans in answers)
+        if not hi > lo:
+            continue
+        trial = np.geomspace(lo, hi, 200)
+
+        def losses(rs, answers=answers):
+            return np.array(
+                [
+                    max(ans["curve"]["figure_db"])
+                    - np.interp(np.log(rs), np.log(ans["curve"]["ohm"]), ans["curve"]["figure_db"])
+                    for _, ans in answers
+                ]
+            )
+
+        each = losses(trial)
+        k = int(np.argmin(np.max(each, axis=0)))
+        common = float(trial[k])
+        worst = int(np.argmax(each[:, k]))
+        out.append(
+            Notice(
+                "resistor-per-band",
+                name,
+                {
+                    "bands": [
+                        {
+                            "band": band,
+                            "termination_ohm": float(ans["termination_ohm"]),
+                            "criterion": ans["criterion"],
+                            "target": ans.get("target"),
+                            "loss_db": float(each[i, k]),
+                        }
+                        for i, (band, ans) in enumerate(answers)
+                    ],
+                    "common_ohm": common,
+                    "common_standard_ohm": nearest_standard_ohm(common),
+                    "worst_db": float(each[worst, k]),
+                    "worst_band": answers[worst][0],
+                },
+            )
+        )
+    return out

@@ -29,8 +29,13 @@ class BandResults:
 
     @property
     def warnings(self) -> list[str]:
-        """Every band's warnings, each marked with its band."""
-        return [f"[{name}] {w}" for name, r in self.bands for w in r.warnings]
+        """Every band's warnings, each marked with its band; then what holds across the bands (``notices``)."""
+        from snrgain.outputs.messages import notice_text
+
+        unit = self.bands[0][1].site.get("length_unit", "m") if self.bands else "m"
+        return [f"[{name}] {w}" for name, r in self.bands for w in r.warnings] + [
+            notice_text(n, unit=unit) for n in self.notices
+        ]
 
     def plan_dict(self) -> dict[str, Any]:
         from snrgain.model.results import plan_to_dict

@@ -35,6 +35,8 @@ class Notice:
     safer_words, over_safer_db, front_to_back_db, front_to_back_safer_db: a resistor chosen for SNR that beats the
     matched resistor or the one of best RDF by under 1 dB while giving up 10 dB of front-to-back per dB, at least
     3 dB; snrgain.decide.decisions),
+    ``resistor-per-band`` (bands, common_ohm, common_standard_ohm, worst_db, worst_band: an antenna of a plan across
+    bands whose best resistors differ by band; snrgain.decide.bandplan.resistor_notices),
     ``termination-off-target`` (target, target_bearing_deg, bearing_deg, off_deg, below_db: a resistor to be chosen
     for SNR whose nearest target lies outside the antenna's main lobe, left at best RDF; snrgain.model.steering),
     ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and

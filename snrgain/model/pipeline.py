@@ -95,14 +95,14 @@ def evaluate_bands(
     Each band is loaded and evaluated as a single-band file of it would be (:func:`evaluate`), so its answer is
     that file's; problems name their band.  Returns :class:`snrgain.model.bands.BandResults`.  A file of one band
     gives one entry, named by its frequency."""
-    from snrgain.decide.bandplan import plan_across_bands
+    from snrgain.decide.bandplan import plan_across_bands, resistor_notices
     from snrgain.model.bands import BandResults
     from snrgain.scenario import load_bands
 
     loaded = load_bands(source, nside=nside, p372_dir=p372_dir, reference=reference)
     out = [(band, evaluate(sc, allow_long=allow_long)) for band, sc in loaded]
     plan, columns = plan_across_bands(out)
-    return BandResults(tuple(out), plan, columns)
+    return BandResults(tuple(out), plan, columns, resistor_notices(out, plan, columns))
 
 
 MAX_SECONDS = 300.0

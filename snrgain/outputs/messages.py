@@ -48,6 +48,12 @@ def _ns_text(x: float) -> str:
     return f"{x:.2g}" if x < 10 else f"{x:.0f}"
 
 
+def _criterion_words(criterion: str, target: str | None) -> str:
+    if criterion == "snr":
+        return f"SNR gain toward {target}" if target else "SNR gain"
+    return {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "RDF (at |Z0|)"}.get(criterion, criterion)
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
@@ -83,6 +89,23 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
             f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
             "element's signal by its phase) or its delays (positive: the signal comes later)"
+        )
+    if n.code == "resistor-per-band":
+        bands = v["bands"]
+        each = ", ".join(f"{b['termination_ohm']:.0f} ohm on {b['band']}" for b in bands)
+        whys = {(b["criterion"], b["target"]) for b in bands}
+        if len(whys) == 1:
+            crit, target = next(iter(whys))
+            why = f" (each the best {_criterion_words(crit, target)} there)"
+        else:
+            why = " (" + "; ".join(f"{b['band']}: {_criterion_words(b['criterion'], b['target'])}" for b in bands) + ")"
+        costs = " and ".join(f"{b['loss_db']:.1f} dB on {b['band']}" for b in bands)
+        served = " and ".join(b["band"] for b in bands)
+        return (
+            f"{n.antenna} serves {served} but its best resistor differs between them: {each}{why}. Built once, it "
+            f"takes one resistor: {v['common_ohm']:.0f} ohm (nearest E12 value {v['common_standard_ohm']:.0f} ohm) "
+            f"loses least at worst, {costs}; or switch the resistor per band (a relay at the far end) to keep each "
+            "band's own"
         )
     if n.code == "termination-off-target":
         return (
@@ -364,12 +387,23 @@ PLAN_WORTH = (
 
 def plan_not_best_text(target: str, why: dict) -> str:
     """Why the plan serves a target with another antenna than the target's best, in words."""
-    reason = (
-        "the plan holds no more antennas ([plan] max_antennas)"
-        if why["reason"] == "max_antennas"
-        else "building it adds less than 0.1 dB to the plan as a whole"
-    )
+    from snrgain.decide.plan import MIN_ADDED_DB
+
+    if why["best_db"] - why["served_db"] < 0.05:  # the same gain as printed: no antenna to add for it
+        return (
+            f"{target}: {why['served_by']} serves it ({signed_text(why['served_db'])} dB), within 0.05 dB of the best, "
+            f"{why['best']}, which the plan does not build for it."
+        )
+    if why["reason"] == "max_antennas":
+        reason, then = "the plan holds no more antennas ([plan] max_antennas)", ""
+    else:
+        reason = (
+            f"building it adds less than {MIN_ADDED_DB:g} dB to the plan as a whole (the plan weighs targets as power "
+            f"ratios, so larger gains toward other targets outweigh its {why['best_db'] - why['served_db']:.1f} dB "
+            "here)"
+        )
+        then = f" Build it too if {target} counts on its own."
     return (
         f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because {reason}; "
-        f"{why['served_by']} serves it ({signed_text(why['served_db'])} dB)."
+        f"{why['served_by']} serves it ({signed_text(why['served_db'])} dB).{then}"
     )

@@ -193,6 +193,9 @@ class TerminationAnswer:
     """The range of resistors searched [ohm] (None for "z0", which is not searched)."""
     matched_words: str = "|Z0|"
     """What ``matched_ohm`` is, in words: the antenna's own (a wire's |Z0| less the far ground, a loop's |Z0|)."""
+    curve: tuple[tuple[float, ...], tuple[float, ...]] | None = None
+    """(resistors [ohm], the criterion at each [dB]): the resistors tried under the sky ("snr"), else the range
+    searched; what one resistor for several bands is weighed on (snrgain.decide.bandplan)."""
 
     def to_dict(self) -> dict:
         return {
@@ -211,6 +214,7 @@ class TerminationAnswer:
             "at_search_bound": self.at_bound,
             "search_ohm": None if self.search_ohm is None else list(self.search_ohm),
             "matched_words": self.matched_words,
+            "curve": None if self.curve is None else {"ohm": list(self.curve[0]), "figure_db": list(self.curve[1])},
         }
 
 
@@ -257,7 +261,13 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         at_bound=None if searched is None else search_bound(best, searched),
         search_ohm=None if searched is None else (float(np.min(searched)), float(np.max(searched))),
         matched_words=getattr(antenna, "matched_words", "|Z0|"),
+        curve=_curve(antenna.auto_terminations_ohm, db),
     )
+
+
+def _curve(values_ohm, db) -> tuple[tuple[float, ...], tuple[float, ...]]:
+    rs = tuple(float(r) for r in values_ohm)
+    return rs, tuple(float(db(r)) for r in rs)
 
 
 def bound_text(answer: dict, figure: str) -> str | None:
@@ -305,6 +315,7 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         at_bound=search_bound(best, sky["values_ohm"]),
         search_ohm=(float(min(sky["values_ohm"])), float(max(sky["values_ohm"]))),
         matched_words=getattr(antenna, "matched_words", "|Z0|"),
+        curve=(tuple(float(r) for r in sky["values_ohm"]), tuple(float(x) for x in sky["figure_db"])),
     )
 
 
