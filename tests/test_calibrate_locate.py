@@ -570,3 +570,30 @@ def test_two_open_short_pairs_at_one_frequency_are_refused():
     zoc, zsc = _readings_of(ln, 76.2)
     with pytest.raises(cal.ReadingError, match=r"reading 2: a second pair at 1.83 MHz \(reading 1 is there too\)"):
         cal.line_from_open_short([cal.OpenShort(F, zoc, zsc), cal.OpenShort(F, 1.2 * zoc, zsc)], length_m=76.2)
+
+
+def test_the_side_of_an_ambiguous_bearing_can_be_given(tmp_path):
+    # A reviewer's loop readings fit 69 and 249 deg alike; the copy took 69 deg with no way to choose but writing a
+    # source of the same name first.  --side takes the one of the two within 90 deg of a rough bearing, in the table,
+    # the JSON and the copy; without it the table says the other side fits as well and how to take it.
+    import json
+
+    runner = CliRunner()
+    rf = tmp_path / "r.toml"
+    rf.write_text(runner.invoke(cli, ["locate", "--example"]).stdout)
+    plain = runner.invoke(cli, ["locate", str(rf), "--format", "json"])
+    fitted = json.loads(plain.stdout)["sources"][0]
+    assert fitted["ambiguous_180"]
+    other = (fitted["bearing_deg"] + 180.0) % 360.0
+    table = runner.invoke(cli, ["locate", str(rf)]).stdout
+    assert f"give --side {other:.0f}" in table
+    out = tmp_path / "o.toml"
+    args = ["locate", str(rf), "--side", f"{other + 30.0:.0f}", "--scenario", str(SCENARIOS / "marrow-fen.toml")]
+    res = runner.invoke(cli, [*args, "--write", str(out), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.stdout)["sources"][0]["bearing_deg"] == pytest.approx(other)
+    written = tomllib.loads(out.read_text())["noise"]["local"][-1]
+    assert written["name"] == "located source"
+    assert float(written["bearing"]) == pytest.approx(other, abs=0.5)
+    bad = runner.invoke(cli, ["locate", str(rf), "--side", "400"])
+    assert bad.exit_code == 2 and "--side" in bad.output

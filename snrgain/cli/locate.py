@@ -42,9 +42,19 @@ from snrgain.cli.options import (
     show_default=True,
     help="Name of the source written to the scenario (numbered when several); one of that name is replaced.",
 )
+@click.option(
+    "--side",
+    type=FiniteRange(0, 360),
+    default=None,
+    metavar="DEG",
+    help="Where a bearing cannot be told from its opposite (180 deg ambiguity): a rough bearing [deg] of the side "
+    "the source lies on (from a walk with a portable receiver, or where the suspect stands); the one of the two "
+    "within 90 deg of it is printed, plotted and written.  Default: the side of a [[noise.local]] of the same name "
+    "in --scenario, else the side the fit happened to find.",
+)
 @scenario_copy_options("the fitted sources added as [[noise.local]]")
 @handle_errors
-def locate(readings, example, sources, fit_elevation, elevation, plot, name, scenario, write_to, overwrite, fmt):
+def locate(readings, example, sources, fit_elevation, elevation, plot, name, side, scenario, write_to, overwrite, fmt):
     """Fit local noise sources (bearing, level) and a diffuse background to READINGS.
 
     Each reading is the noise level on a known antenna in a known orientation: a small loop turned in
@@ -86,9 +96,15 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
             )
     except loc.LocateError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
+    if side is not None:
+        res = loc.on_side(res, side)
+    elif scenario is not None and res.ok:  # printed and plotted on the side it is written on
+        res = loc.sided(res, read_scenario_text(scenario), at_m=data.at_m, name=name)
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
     if res.ok:  # a failed fit writes nothing; a good one writes every output asked for, or none
-        _write_outputs(res, data, plot=plot, scenario=scenario, write_to=write_to, name=name, overwrite=overwrite)
+        _write_outputs(
+            res, data, plot=plot, scenario=scenario, write_to=write_to, name=name, overwrite=overwrite, side=side
+        )
         if plot is not None:
             out["plot"] = plot
         if scenario is not None:
@@ -96,12 +112,12 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sce
     if fmt == "json":
         emit_json(out)
     else:
-        click.echo("\n".join(_lines(res, out)))
+        click.echo("\n".join(_lines(res, out, side)))
     if not res.ok:
         fail("the fit failed (" + res.message.split(";")[0] + "); no file written", EXIT_FAILURE)
 
 
-def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite) -> None:
+def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side=None) -> None:
     """The plot and the scenario copy: all that can fail on the inputs first, then the files; if the copy cannot
     be written, a plot this run created is taken away again."""
     from snrgain.tools import locate as loc
@@ -109,7 +125,7 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite) -> N
     text = None
     if scenario is not None:
         text = loc.with_sources(
-            read_scenario_text(scenario), res, at_m=data.at_m, distances_m=data.distances_m, name=name
+            read_scenario_text(scenario), res, at_m=data.at_m, distances_m=data.distances_m, name=name, side_deg=side
         )
     created = None
     if plot is not None:
@@ -127,7 +143,7 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite) -> N
         raise
 
 
-def _lines(res, out) -> list[str]:
+def _lines(res, out, side=None) -> list[str]:
     lines = [res.message if res.ok else "FIT FAILED: " + res.message]
     for i, s in enumerate(res.sources):
         amb = f" (or {(s.bearing_deg + 180) % 360:.0f} deg)" if s.ambiguous_180 else ""
@@ -149,6 +165,15 @@ def _lines(res, out) -> list[str]:
             f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm{flag}"
         )
     lines += [f"  note: {n}" for n in res.notes]
+    if side is None:
+        for i, s in enumerate(res.sources):
+            if s.ambiguous_180:
+                other = (s.bearing_deg + 180) % 360
+                lines.append(
+                    f"  note: source {i + 1}'s readings fit {s.bearing_deg:.0f} and {other:.0f} deg alike; the side "
+                    f"printed is the fit's (or the scenario's source of that name); where it lies toward {other:.0f} "
+                    f"deg (a walk with a portable receiver tells), give --side {other:.0f}"
+                )
     if "plot" in out:
         lines.append(f"  wrote {out['plot']}")
     if "written" in out:

@@ -512,16 +512,33 @@ def sided(res: LocateResult, text: str, *, at_m=None, name: str = "located sourc
     return replace(res, sources=sources)
 
 
-def with_sources(text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
+def on_side(res: LocateResult, side_deg: float) -> LocateResult:
+    """``res`` with each source whose readings cannot tell its bearing from the opposite one (``ambiguous_180``) on
+    the side of ``side_deg`` (a rough bearing the user knows it lies toward): the one of the two within 90 deg of it."""
+    from dataclasses import replace
+
+    sources = []
+    for s in res.sources:
+        off = abs((s.bearing_deg - side_deg + 180.0) % 360.0 - 180.0)
+        if s.ambiguous_180 and off > 90.0:
+            s = replace(s, bearing_deg=(s.bearing_deg + 180.0) % 360.0)
+        sources.append(s)
+    return replace(res, sources=sources)
+
+
+def with_sources(
+    text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source", side_deg=None
+) -> str:
     """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
-    table removed), the others kept; refuses a failed fit."""
+    table removed), the others kept; refuses a failed fit.  An ambiguous bearing (180 deg) is written on the side
+    of ``side_deg`` where given (:func:`on_side`), else on the side of the source it replaces (:func:`sided`)."""
     import tomllib
 
     from snrgain.tools.tomltext import remove_tables
 
     if not res.ok:
         raise LocateError("the fit failed, so no sources were written: " + res.message)
-    res = sided(res, text, at_m=at_m, name=name)
+    res = on_side(res, side_deg) if side_deg is not None else sided(res, text, at_m=at_m, name=name)
     kept = remove_tables(text, "[[noise.local]]", set(source_names(res, name)))
     out = kept.rstrip("\n") + "\n" + scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name)
     tomllib.loads(out)  # still one valid file
