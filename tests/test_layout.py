@@ -500,3 +500,22 @@ def test_layout_scores_a_figure_eight_toward_the_target_nearest_either_lobe():
     data = tomllib.loads(LOOP_SITE)
     pr = Problem(load(data), data, base_dir=REPO)
     assert [pr.sc.targets[t].name for t in pr.target[0]] == ["Japan"]
+
+
+def test_a_layout_at_the_end_of_its_ranges_is_said():
+    # A reviewer's 160 m lot: layout's best was a Beverage at the shortest length and the last bearing its place table
+    # allowed, and nothing said the search had run into its own limits.  Now each end reached is named with the range
+    # (and, with a placed source on the site, that a wire at its shortest may win by standing clear of it).
+    from snrgain.tools.layout import Design, Layout, range_end_notes
+
+    pr = _problem(FILES[0])  # Beverage Europe: bearing 30-60 deg, length 120-250 m; a placed source
+    at_ends = Design("Beverage Europe", 0.0, 0.0, float(np.radians(60.0)), 120.0)
+    inside = Design("Beverage Pacific", 100.0, 0.0, float(np.radians(300.0)), 200.0)
+    (note,) = range_end_notes(pr, Layout((at_ends, inside), (5.0, 3.0), ("Europe", "Pacific")))
+    assert note.startswith("Beverage Europe: its bearing, 60 deg, is the last of the bearings allowed (30-60 deg)")
+    assert "its length, 120 m, is the shortest allowed (120 m to 250 m)" in note
+    assert "standing clear of a placed source" in note
+    long_end = Design("Beverage Europe", 0.0, 0.0, float(np.radians(45.0)), 250.0)
+    (note,) = range_end_notes(pr, Layout((long_end, inside), (5.0, 3.0), ("Europe", "Pacific")))
+    assert "is the longest allowed" in note and "placed source" not in note and "bearing" not in note
+    assert range_end_notes(pr, Layout((inside, inside), (5.0, 3.0), ("Europe", "Pacific"))) == []

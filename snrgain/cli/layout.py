@@ -80,6 +80,7 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     ]
     best = layouts[0]
     notes += [f"layout 1: {notice_text(n, sc.site.length_unit)}" for n in lay.placed_feed_line_notices(problem, best)]
+    notes += [f"layout 1: {n}" for n in lay.range_end_notes(problem, best, sc.site.length_unit)]
     if notes:
         out["notes"] = notes
     if plot is not None:

@@ -885,6 +885,41 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
     return plan
 
 
+def range_end_notes(problem: Problem, layout: Layout, unit: str = "m") -> list[str]:
+    """For each design of ``layout`` whose bearing or length lies at an end of the range its place table allows (a
+    bearing within 1 deg of it, a length within 1 %), a sentence: the best may lie beyond what was searched."""
+    out = []
+    for d, pl in zip(layout.designs, problem.places):
+        ends = []
+        if pl.bearing is not None and d.bearing_rad is not None and not d.states:
+            lo, hi = (float(np.degrees(x)) % 360.0 for x in pl.bearing)
+            b = float(np.degrees(d.bearing_rad)) % 360.0
+            for end, at in (("the first", lo), ("the last", hi)):
+                if (hi - lo) % 360.0 > 1.0 and abs((b - at + 180.0) % 360.0 - 180.0) < 1.0:
+                    ends.append(f"its bearing, {b:.0f} deg, is {end} of the bearings allowed ({lo:.0f}-{hi:.0f} deg)")
+        if pl.length is not None and d.length_m is not None:
+            lo, hi = (float(x) for x in pl.length)
+            for end, at in (("the shortest", lo), ("the longest", hi)):
+                if hi > lo * 1.01 and abs(d.length_m - at) <= 0.01 * at:
+                    ends.append(
+                        f"its length, {length_text(d.length_m, unit, 0)}, is {end} allowed "
+                        f"({length_text(lo, unit, 0)} to {length_text(hi, unit, 0)})"
+                    )
+        if ends:
+            short = any("the shortest" in e for e in ends) and problem.placed
+            out.append(
+                f"{d.name}: " + " and ".join(ends) + "; the best may lie beyond what was searched: widen its place "
+                "table's range to look"
+                + (
+                    " (a wire at its shortest may win by standing clear of a placed source rather than by its "
+                    "pattern: compare its RDF with the reference's in rank)"
+                    if short
+                    else ""
+                )
+            )
+    return out
+
+
 def placed_feed_line_notices(problem: Problem, layout: Layout) -> list:
     """The lot's feed-line notices (snrgain.decide.lot.feed_line_notices: a run within the user's tx_clearance) of the
     placed candidates' feed lines, each run from where ``layout`` puts its antenna to its station entry (the layout's
