@@ -438,3 +438,90 @@ def test_a_resistor_is_not_tuned_toward_a_target_outside_the_wires_main_lobe(tmp
     r = snrgain.evaluate(load(path))
     assert not [n for n in r.notices if n.code == "termination-off-target"]
     assert r.antenna("short Beverage").build["termination_answer"]["criterion"] == "snr"
+
+
+MW_BOG = """
+[site]
+name = "Sorrel Flats (invented)"
+latitude = 41.2
+longitude = -88.1
+ground = "moist loam"
+
+[band]
+frequency = "0.6 MHz"
+bandwidth = "5 kHz"
+
+[time]
+months = [1]
+utc_hours = [2, 6]
+
+[noise.man_made]
+environment = "quiet rural"
+
+[noise.atmospheric]
+model = "none"
+
+[[target]]
+name = "transatlantic"
+bearing = 46
+elevation = [5, 20]
+
+[reference]
+name = "barn whip"
+family = "vertical"
+height = "8 m"
+ground_loss = "40 ohm"
+position = [0, 0]
+
+[[candidate]]
+name = "BOG"
+family = "bog"
+length = "300 m"
+bearing = 45
+height = "on soil"
+position = [10, 10]
+
+[[candidate]]
+name = "Beverage"
+family = "beverage"
+length = "250 m"
+height = "2.5 m"
+bearing = 45
+position = [-40, 10]
+"""
+
+
+def test_a_wire_far_past_the_length_rule_that_a_shorter_one_beats_is_said(tmp_path):
+    # A reviewer's medium-wave BOG: 300 m on the soil at 0.6 MHz, where `wire` gives 147 m as its best length; a
+    # sweep gave +9.0 dB at 150 m against +3.4 dB at 300 m, and rank said nothing.  Now a wire past 1.5 times the
+    # maximum-effective-length rule (common practice) whose RDF a shorter one beats by 1.5 dB is said, its RDF and
+    # the shorter one's worked again here; the Beverage in the air, well inside its rule, is not.
+    import snrgain
+    from noisemodels.sphere import upper_hemisphere
+    from snrgain.outputs.messages import notice_text
+    from snrgain.physics import lines
+    from snrgain.physics.ground import C_M_PER_S
+    from snrgain.scenario import load
+
+    path = tmp_path / "site.toml"
+    path.write_text(MW_BOG)
+    r = snrgain.evaluate(load(path))
+    (n,) = [n for n in r.notices if n.code == "wire-too-long"]
+    v = n.values
+    assert n.antenna == "BOG" and v["target"] == "transatlantic"
+    sc = load(path)
+    bog = next(a for a in r.candidates if a.name == "BOG")
+    assert v["rdf_db"] == pytest.approx(bog.rdf_db[0], abs=0.3)  # the ranking's own RDF column, its resistor chosen
+    vf = v["velocity_factor"]
+    assert 0.25 < vf < 0.45  # a wire on the soil: a third of the speed of light or so (common practice)
+    t = sc.targets[0]
+    rule = lines.max_effective_length_m(C_M_PER_S / 0.6e6, velocity_factor=vf, elevation_rad=t.mean_elevation_rad)
+    assert v["rule_m"] == pytest.approx(rule) and v["length_m"] > 1.5 * rule
+    assert v["best_length_m"] < 300.0 and v["best_rdf_db"] - v["rdf_db"] >= 1.5
+    grid = upper_hemisphere(sc.nside)
+    steered = sc.candidates[0]
+    again = wiredesign.rdf_db(variant(steered, length=v["best_length_m"]), sc.freq_hz, t, grid)
+    assert again >= v["rdf_db"] + 1.0  # a shorter wire, its resistor the unsteered one's, still beats it
+    assert "a shorter wire would do better" in notice_text(n)
+    path.write_text(MW_BOG.replace('length = "300 m"', 'length = "60 m"'))
+    assert not [n for n in snrgain.evaluate(load(path)).notices if n.code == "wire-too-long"]

@@ -94,6 +94,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     out.extend(local_source_notices(sc, antennas))
     out.extend(fragile_termination_notices(sc))
     out.extend(off_target_termination_notices(sc))
+    out.extend(wire_too_long_notices(sc))
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
     out.extend(phasing_tolerance_notices(sc))
@@ -334,6 +335,67 @@ def off_target_termination_notices(sc: Scenario) -> list[Notice]:
         off = target_outside_lobe(sc, ant, nearest_target(sc, ant.params.bearing))
         if off is not None:
             out.append(Notice("termination-off-target", ant.name, off))
+    return out
+
+
+LONG_WIRE_RULE_FACTOR = 1.5
+"""A wire longer than this many times the maximum-effective-length rule (snrgain.physics.lines) has its RDF looked at
+over shorter lengths (:func:`wire_too_long_notices`); shorter ones are not (a Beverage in the air rarely is)."""
+SHORTER_BETTER_DB = 1.5
+"""A shorter wire whose RDF beats the wire's own by this much [dB] is said."""
+
+
+def wire_too_long_notices(sc: Scenario) -> list[Notice]:
+    """``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target) for each travelling-wave
+    wire longer than LONG_WIRE_RULE_FACTOR times the maximum-effective-length rule toward its nearest target whose RDF
+    toward it, with its resistor as chosen, is beaten by SHORTER_BETTER_DB or more at a shorter length (twelve
+    lengths from 0.3 of its own, on a coarse sky; the two figures said are worked on the scenario's own): a BOG,
+    whose wave runs at a third of the speed of light, slips out of step with the arriving wave within a few tens of
+    metres, and past that its RDF rises and falls with length."""
+    from noisemodels.sphere import upper_hemisphere
+    from snrgain.antennas.base import variant
+    from snrgain.model.steering import nearest_target
+    from snrgain.physics.ground import C_M_PER_S
+    from snrgain.physics.lines import max_effective_length_m
+    from snrgain.tools.wiredesign import rdf_db
+
+    out = []
+    coarse = None
+    for ant in sc.candidates:
+        if not (getattr(ant, "long_wire", False) and hasattr(ant, "line") and hasattr(ant, "length_m")):
+            continue
+        if ant.composite or not hasattr(ant.params, "bearing"):
+            continue
+        t = sc.targets[nearest_target(sc, ant.params.bearing)]
+        vf = float(ant.line(sc.freq_hz).velocity_factor)
+        rule = max_effective_length_m(C_M_PER_S / sc.freq_hz, velocity_factor=vf, elevation_rad=t.mean_elevation_rad)
+        if not ant.length_m > LONG_WIRE_RULE_FACTOR * rule:
+            continue
+        coarse = upper_hemisphere(16) if coarse is None else coarse
+        lengths = np.geomspace(0.3 * ant.length_m, ant.length_m, 12)
+        rdf = [rdf_db(variant(ant, length=float(x)), sc.freq_hz, t, coarse) for x in lengths]
+        k = int(np.argmax(rdf))
+        if rdf[k] - rdf[-1] < SHORTER_BETTER_DB:
+            continue
+        grid = upper_hemisphere(sc.nside)
+        own, best = (rdf_db(variant(ant, length=float(x)), sc.freq_hz, t, grid) for x in (ant.length_m, lengths[k]))
+        if best - own < SHORTER_BETTER_DB:
+            continue
+        out.append(
+            Notice(
+                "wire-too-long",
+                ant.name,
+                {
+                    "length_m": float(ant.length_m),
+                    "rule_m": float(rule),
+                    "rdf_db": float(own),
+                    "best_length_m": float(lengths[k]),
+                    "best_rdf_db": float(best),
+                    "target": t.name,
+                    "velocity_factor": vf,
+                },
+            )
+        )
     return out
 
 

@@ -37,6 +37,8 @@ class Notice:
     3 dB; snrgain.decide.decisions),
     ``resistor-per-band`` (bands, common_ohm, common_standard_ohm, worst_db, worst_band: an antenna of a plan across
     bands whose best resistors differ by band; snrgain.decide.bandplan.resistor_notices),
+    ``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target, velocity_factor: a wire past
+    the maximum-effective-length rule that a shorter one beats on RDF; snrgain.decide.decisions),
     ``termination-off-target`` (target, target_bearing_deg, bearing_deg, off_deg, below_db: a resistor to be chosen
     for SNR whose nearest target lies outside the antenna's main lobe, left at best RDF; snrgain.model.steering),
     ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and

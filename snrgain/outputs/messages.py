@@ -107,6 +107,15 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"loses least at worst, {costs}; or switch the resistor per band (a relay at the far end) to keep each "
             "band's own"
         )
+    if n.code == "wire-too-long":
+        return (
+            f"{n.antenna}: at {length_text(v['length_m'], unit, 0)} it is {v['length_m'] / v['rule_m']:.1f} times the "
+            f"maximum-effective-length rule ({length_text(v['rule_m'], unit, 0)} at velocity factor "
+            f"{v['velocity_factor']:.2f}; common practice), and its RDF toward {v['target']} is {v['rdf_db']:.1f} dB "
+            f"where {length_text(v['best_length_m'], unit, 0)} of the same wire gives {v['best_rdf_db']:.1f} dB: past "
+            "the rule the wave on the wire slips out of step with the arriving wave and the RDF rises and falls with "
+            "length; a shorter wire would do better ('snrgain wire' gives the whole length curve)"
+        )
     if n.code == "termination-off-target":
         return (
             f"{n.antenna}: no target lies in its main lobe (the nearest, {v['target']} at "
