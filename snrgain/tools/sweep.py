@@ -518,10 +518,10 @@ def placement_warnings(sc, names: set[str]) -> dict[str, str]:
 
     out: dict[str, list[str]] = {}
     for n in site_notices(sc, only=names):
-        # a crossing is said of the first of the two wires in the file: here of the design's
-        name = n.antenna if n.antenna in names else n.values.get("other")
-        if n.code in PLACEMENT_CODES and n.code not in out.get(name, []):
-            out.setdefault(name, []).append(n.code)
+        # a crossing is said of the first of the two wires in the file: here of each of the two the design holds
+        for name in {n.antenna, n.values.get("other")} & set(names):
+            if n.code in PLACEMENT_CODES and n.code not in out.get(name, []):
+                out.setdefault(name, []).append(n.code)
     return {k: "; ".join(v) for k, v in out.items()}
 
 
