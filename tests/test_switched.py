@@ -284,9 +284,69 @@ def test_the_states_of_one_wire_are_warned_about_once():
     data["reference"]["position"] = [0, 0]
     data["site"]["tx_clearance"] = "60 m"  # a long wire's coupling is computed: only a given clearance flags it
     notes = [(n.code, n.antenna) for n in site_notices(load(data))]
-    assert notes.count(("wires-cross", "reversible beverage NE (45 deg)")) == 1
-    assert not [n for n in notes if n[1] == "reversible beverage SW (225 deg)"], notes
-    assert ("near-tx-vertical", "reversible beverage NE (45 deg)") in notes
+    # said once, of the wire (both its states), not of its first state alone
+    assert notes.count(("wires-cross", "reversible beverage")) == 1
+    assert not [n for n in notes if n[1].startswith("reversible beverage ")], notes
+    assert ("near-tx-vertical", "reversible beverage") in notes
+
+
+CROSSED = (
+    {
+        "name": "bev A",
+        "family": "beverage",
+        "length": "200 m",
+        "height": "2.5 m",
+        "position": [0, 0],
+        "directions": ["45 deg", "225 deg"],
+    },
+    {
+        "name": "bev B",
+        "family": "beverage",
+        "length": "200 m",
+        "height": "2.5 m",
+        "position": [200, 0],
+        "directions": ["315 deg", "135 deg"],
+    },
+)
+"""Two reversible wires that cross (A from the origin toward 45 deg, B from 200 m east toward 315 deg: they meet
+141 m along each)."""
+
+
+def test_a_crossing_of_one_wire_is_said_of_every_state():
+    from snrgain.decide.lot import site_notices
+    from snrgain.outputs.messages import notice_text
+
+    sc = load(scenario(*CROSSED))
+    crossing = [n for n in site_notices(sc) if n.code == "wires-cross"]
+    assert [(n.antenna, n.values["other"]) for n in crossing] == [("bev A", "bev B")]
+    assert notice_text(crossing[0]).startswith("bev A: crosses bev B;")
+    # a sweep's design (only=): each state of either wire by its own name
+    for names in ({"bev A NE (45 deg)", "bev A SW (225 deg)"}, {"bev B NW (315 deg)", "bev B SE (135 deg)"}):
+        said = {
+            x for n in site_notices(sc, only=names) if n.code == "wires-cross" for x in (n.antenna, n.values["other"])
+        }
+        assert names <= said, (names, said)
+
+
+def test_a_sweeps_rows_of_every_state_of_a_crossing_wire_say_it():
+    from snrgain.tools import sweep
+
+    data = scenario(*CROSSED)
+    for table, states in (("bev A", ("NE (45 deg)", "SW (225 deg)")), ("bev B", ("NW (315 deg)", "SE (135 deg)"))):
+        study = sweep.Study(data, "test", None, [sweep.parse_vary(f"{table}: length = 100 m, 200 m")])
+        rows = sweep.run_designs(study, list(enumerate(sweep.designs(study.varies))))
+        said = {(r[study.varies[0].column], r["antenna"]): r["placement_warnings"] for r in rows}
+        for state in states:
+            assert said[("100 m", f"{table} {state}")] == "", said  # 100 m: short of the crossing
+            assert said[("200 m", f"{table} {state}")] == "wires-cross", said
+    # both wires varied in one sweep: the crossing is said in the rows of both, every state of each
+    varies = [sweep.parse_vary("bev A: length = 200 m"), sweep.parse_vary("bev B: length = 200 m")]
+    study = sweep.Study(data, "test", None, varies)
+    rows = sweep.run_designs(study, list(enumerate(sweep.designs(study.varies))))
+    assert {r["antenna"]: r["placement_warnings"] for r in rows} == {
+        name: "wires-cross"
+        for name in ("bev A NE (45 deg)", "bev A SW (225 deg)", "bev B NW (315 deg)", "bev B SE (135 deg)")
+    }
 
 
 def test_the_runner_up_is_another_antenna_not_another_state():

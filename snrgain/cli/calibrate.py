@@ -74,6 +74,8 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         from snrgain.scenario import read_source
 
         sc_data, _, _ = read_source(Path(scenario))
+        if into is not None:  # before any work; a switched wire's state names the wire
+            into = cal.into_table(sc_data, into)
     try:
         data = cal.load_readings(readings)
         if sc_data is not None:  # the wire lies at the scenario's site: over its ground, unless [wire] gives one
@@ -178,6 +180,11 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
         )
     if scenario is not None:
         what = f"the measured line into {into!r}" if into else "the fitted ground into [site]"
+        if into is not None and sc_data is not None:
+            from snrgain.scenario.connected import state_names
+
+            states = state_names(sc_data).get(into)
+            what += f", one wire for its {len(states)} states" if states else ""
         lines_out.append(f"  wrote {write_to} ({what})")
     click.echo("\n".join(lines_out))
 

@@ -47,7 +47,7 @@ def noise_readings(scenario, readings, example, write_to, overwrite, fmt, p372_d
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     rs = nr.load_readings(readings)
     with progress(None, f"noise-readings: {len(rs)} reading(s) through the pipeline"):
-        f = nr.fit(rs, scenario, p372_dir=p372_dir)
+        f = nr.fit(rs, scenario, p372_dir=p372_dir, label=readings)
     if write_to is not None and not f.determined:
         raise ValueError(
             "--write: the readings do not fix the man-made level: "

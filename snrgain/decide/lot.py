@@ -215,19 +215,90 @@ def _too_close(shapes, only, wire_names: set[str], unit_pairs: set[frozenset]) -
 def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
     """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical.  With
     ``only`` (antenna names: a sweep's design) just those antennas' own, against the others as they stand; the plan's
-    other warnings (plan points like a latitude, sources in a keep-out) are left out."""
+    other warnings (plan points like a latitude, sources in a keep-out) are left out.
+
+    A switched antenna's states that stand as one (the same wire or elements) are one place: what is said of it is
+    said of every state, by the antenna's name where the place is all its states (check's and rank's warnings, said
+    once), and of each state by its own name with ``only`` (a sweep's row of each state carries it)."""
     from shapely.geometry import Point
 
-    out = []
     site = sc.site
     lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
     keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
-    shapes = []
-    for a in sc.candidates:  # a switched antenna's states that stand as one (the same wire or elements): warned once
+    shapes, stands = places(sc)
+    mine = None if only is None else {k for k, names in stands.items() if set(names) & set(only)}
+    out = _place_notices(sc, shapes, mine, lot, keep)
+    out = of_every_state(out, stands, {} if only is not None else whole_antennas(stands, sc))
+    from snrgain.model.scatter import tx_antenna
+
+    if tx_antenna(sc) is not None:
+        runs = {n: (fl.start_m, fl.end_m) for n, fl in sc.feed_lines.items() if only is None or n in only}
+        out.extend(feed_line_notices(sc, runs))
+    if only is not None:
+        return out
+    for src in sc.noise.local:
+        if src.position_m is not None:
+            for name, area in keep:
+                if area.covers(Point(*src.position_m)):
+                    out.append(Notice("source-in-keep-out", None, {"source": src.name, "area": name}))
+    out.extend(latlon_like_notices(sc))
+    return out
+
+
+def places(sc) -> tuple[list, dict[str, list[str]]]:
+    """Each place the candidates stand once: ([(the first antenna standing there, its footprint or None), ...], that
+    antenna's name -> the names of every antenna standing there).  Only a switched antenna's states share a place
+    (the same wire or elements: snrgain.scenario.switched); any other antenna has one of its own."""
+    shapes, stands = [], {}
+    for a in sc.candidates:
         shape = footprint(a)
-        same = [t for b, t in shapes if t is not None and _one_antenna(a, b)]
-        if shape is None or not any(shape.hausdorff_distance(t) < 1e-6 for t in same):
+        same = [
+            b
+            for b, t in shapes
+            if shape is not None and t is not None and _one_antenna(a, b) and shape.hausdorff_distance(t) < 1e-6
+        ]
+        if same:
+            stands[same[0].name].append(a.name)
+        else:
             shapes.append((a, shape))
+            stands[a.name] = [a.name]
+    return shapes, stands
+
+
+def whole_antennas(stands: dict[str, list[str]], sc) -> dict[str, str]:
+    """The places (:func:`places`: the first state's name) where every state of a switched antenna stands -> that
+    antenna's name."""
+    from snrgain.scenario.switched import switched_state
+
+    out = {}
+    for a in sc.candidates:
+        sw = switched_state(a)
+        if sw is not None and a.name in stands and len(stands[a.name]) == len(sw.states) > 1:
+            out[a.name] = sw.group
+    return out
+
+
+def of_every_state(notices: list[Notice], stands: dict[str, list[str]], whole: dict[str, str]) -> list[Notice]:
+    """The notices said of a place's first state said of the place: by the switched antenna's name where ``whole``
+    has it, else once for each state standing there (:func:`places`); the ``other`` antenna likewise."""
+    out = []
+    for n in notices:
+        other = n.values.get("other")
+        names = [whole[n.antenna]] if n.antenna in whole else stands.get(n.antenna, [n.antenna])
+        others = [whole[other]] if other in whole else stands.get(other, [other])
+        for name in names:
+            for o in others if "other" in n.values else [other]:
+                values = {**n.values, "other": o} if "other" in n.values else n.values
+                out.append(n if (name, o) == (n.antenna, other) else Notice(n.code, name, dict(values)))
+    return out
+
+
+def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
+    """Off the lot, in a keep-out, wires crossing or laid alike, antennas on one spot, near the TX vertical: of each
+    place once (``shapes``: :func:`places`; ``only``: the places of a sweep's design, or None)."""
+    from shapely.geometry import Point
+
+    out = []
     mine = [(a, s) for a, s in shapes if only is None or a.name in only]
     for ant, shape in mine:
         if shape is None:
@@ -260,8 +331,8 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
     # and the others (a two-wire line's reversed port, pattern tables) keep the half-wave rule.
     if ref is not None:
         tx = Point(*(ref.params.position or (0.0, 0.0)))
-        clear = tx_clearance_m(site, sc.freq_hz)
-        given = getattr(site, "tx_clearance_m", None) is not None
+        clear = tx_clearance_m(sc.site, sc.freq_hz)
+        given = getattr(sc.site, "tx_clearance_m", None) is not None
         for ant, shape in mine:  # the vertical itself too is a candidate under another reference: not near itself
             if shape is not None and ant.name != ref.name and clearance_applies(sc, ant):
                 d = float(shape.distance(tx))
@@ -269,16 +340,6 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
                     out.append(
                         Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear, "given": given})
                     )
-        runs = {n: (fl.start_m, fl.end_m) for n, fl in sc.feed_lines.items() if only is None or n in only}
-        out.extend(feed_line_notices(sc, runs))
-    if only is not None:
-        return out
-    for src in sc.noise.local:
-        if src.position_m is not None:
-            for name, area in keep:
-                if area.covers(Point(*src.position_m)):
-                    out.append(Notice("source-in-keep-out", None, {"source": src.name, "area": name}))
-    out.extend(latlon_like_notices(sc))
     return out
 
 

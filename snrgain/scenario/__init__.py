@@ -10,7 +10,8 @@ One module per section and per job: ``files`` (reading, limits), ``site``, ``ban
 ``targets``, ``antennas`` (reference and candidates), ``local`` (local sources against the antennas),
 ``receiver`` (receiver and chain), ``compute`` (compute, uncertainty, plan), ``model`` (ScenarioModel, the
 resolved Scenario), ``loading`` (:func:`load` in named steps); ``derive`` makes the resolved objects that only
-freeze a section's values from the section itself.  Every name is importable from ``snrgain.scenario``.
+freeze a section's values from the section itself; ``connected`` names the antenna a reading or a log was taken on
+(a switched antenna's state).  Every name is importable from ``snrgain.scenario``.
 """
 
 from snrgain.antennas import SpecError
@@ -20,6 +21,7 @@ from .antennas import PlaceSection, antenna_from_table
 from .band import Band, BandSection
 from .bands import load_bands, one_band, split_bands
 from .compute import Compute, PlanSection, Uncertainty, UncertaintySection
+from .connected import Connected, antenna_names, connected
 from .files import MAX_FILE_BYTES, MAX_ITEMS, MAX_NESTING, decode_text, parse_toml, read_source, read_text_file
 from .loading import load
 from .local import MIN_READING_GAIN, MIN_SOURCE_GAP_M
@@ -59,6 +61,7 @@ __all__ = [
     "Band",
     "BandSection",
     "ChainSection",
+    "Connected",
     "Compute",
     "Feedline",
     "Galactic",
@@ -85,8 +88,10 @@ __all__ = [
     "Uncertainty",
     "UncertaintySection",
     "antenna_from_table",
+    "antenna_names",
     "arrival_band_share",
     "chain_from_section",
+    "connected",
     "decode_text",
     "load",
     "parse_toml",

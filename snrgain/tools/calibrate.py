@@ -829,6 +829,27 @@ def with_ground(text: str, value: str) -> str:
     return out
 
 
+def into_table(data: dict, name: str) -> str:
+    """The candidate's table ``--into`` names in the scenario's tables ``data``: a candidate by its name, a switched
+    wire (``directions``) by its own name or by any state's (snrgain.scenario.connected: its states are one wire, so
+    the line measured is every state's).  ValueError naming --into and the candidates otherwise."""
+    from snrgain.scenario import connected
+
+    cands = [c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)]
+    if name in cands:
+        return name
+    try:
+        table = connected(data, name)
+    except ValueError:
+        table = None
+    if table is None or table.group is None:  # none, or the reference: the line is written into a candidate
+        raise ValueError(
+            f"--into: the scenario has no candidate named {name!r}; its candidates are "
+            f"{', '.join(repr(str(c)) for c in cands)} (or a state of a switched one, as rank names it)"
+        )
+    return table.table
+
+
 def with_measured_line(text: str, name: str, line: lines.LineConstants) -> str:
     """Scenario TOML text with the candidate ``name``'s measured line constants set (velocity_factor, attenuation
     and z0, the magnitude of the measured Z0), replacing any it had; only that antenna changes."""

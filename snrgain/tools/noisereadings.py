@@ -407,7 +407,9 @@ def _env_fa(environment: str, freq_hz: float) -> float:
     return float(p372.man_made(freq_hz, environment=environment).fa_db)
 
 
-def _copy(data: dict, names: set[str], months: list[int], hours: list[float]) -> dict:
+def _copy(data: dict, tables: set[str], months: list[int], hours: list[float]) -> dict:
+    """The scenario's tables at the readings' months and hours with only the candidates ``tables`` names (by the
+    names on their tables: a switched antenna's for its states) and the parts of a combination among them."""
     import copy
 
     d = copy.deepcopy(data)
@@ -415,19 +417,38 @@ def _copy(data: dict, names: set[str], months: list[int], hours: list[float]) ->
     for t in [*d.get("target", []), d.get("band") if isinstance(d.get("band"), dict) else {}]:
         t.pop("months", None)
         t.pop("utc_hours", None)
-    ref = d.get("reference", {}).get("name", "reference")
     cands = d.get("candidate", [])
-    want = set(names)
+    want = set(tables)
     for _ in range(3):
         for c in cands:
             if c.get("name") in want:
                 want |= set(c.get("antennas", []))
-    known = {ref, "reference", *(c.get("name") for c in cands)}
-    for n in names:
-        if n not in known:
-            raise ValueError(f"antenna {n!r} is not in the scenario; its antennas are: {', '.join(sorted(known))}")
     d["candidate"] = [c for c in cands if c.get("name") in want] or cands[:1]  # a scenario needs a candidate
     return d
+
+
+def named(readings: list[Reading], data: dict, label: str = "noise readings") -> tuple[list[Reading], set[str]]:
+    """The readings with each antenna by the name the results give it (a switched antenna's state by its whole name:
+    snrgain.scenario.connected), and the names of the tables they need.  Raises ReadingsError (``label``: the
+    readings' file) naming every reading whose antenna is not one the scenario has, or is a switched antenna without
+    its state."""
+    from dataclasses import replace
+
+    from snrgain.errors import ReadingsError
+    from snrgain.scenario import connected
+
+    out, tables, problems = [], set(), []
+    for r in readings:
+        try:
+            c = connected(data, r.antenna)
+        except ValueError as exc:
+            problems.append((f"reading[{r.index}].antenna", str(exc)))
+            continue
+        out.append(replace(r, antenna=c.name))
+        tables.add(c.table)
+    if problems:
+        raise ReadingsError(label, problems)
+    return out, tables
 
 
 def temperatures(readings: list[Reading], scenario_path, *, offset_db: float | None = None, p372_dir=None):
@@ -443,7 +464,8 @@ def temperatures(readings: list[Reading], scenario_path, *, offset_db: float | N
     off = before if offset_db is None else offset_db
     months = sorted({r.time.month for r in readings})
     hours = sorted({r.time.hour for r in readings})
-    d = _copy(with_offset(data, off), {r.antenna for r in readings}, months, [h + 0.5 for h in hours])
+    readings, tables = named(readings, data)
+    d = _copy(with_offset(data, off), tables, months, [h + 0.5 for h in hours])
     res = evaluate(load(d, base_dir=base_dir, label=label, p372_dir=p372_dir))
     ref = res.reference.name
     by = {x.name: x for x in [res.reference, *res.candidates]}
@@ -472,8 +494,9 @@ def antenna_temperature(r: Reading, t_e: float, gain: float) -> float:
     return p_w / (BOLTZMANN * r.bandwidth_hz * gain) - t_e
 
 
-def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
-    """The man-made offset the readings give (the module's note), with their spread."""
+def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "noise readings") -> NoiseFit:
+    """The man-made offset the readings give (the module's note), with their spread; ``label``: the readings' file,
+    named in errors."""
     from scipy.optimize import minimize_scalar
 
     from snrgain.scenario import read_source
@@ -481,6 +504,7 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None) -> NoiseFit:
     from snrgain.tools.learn import OFFSET_RANGE_DB, Z90
 
     data, _, _ = read_source(Path(scenario_path))
+    readings, _ = named(readings, data, label)  # a state as rank names it, however the reading wrote it
     env = data.get("noise", {}).get("man_made", {}).get("environment", "residential")
     before, _, freq, temps = temperatures(readings, scenario_path, p372_dir=p372_dir)
     band = logs.band_of_hz(freq)

@@ -196,6 +196,18 @@ def _table(data: dict, vary: Vary) -> dict:
     for cand in data.get("candidate", []):
         if isinstance(cand, dict) and cand.get("name") == vary.table:
             return cand
+    from snrgain.scenario import connected
+
+    try:  # a switched antenna's state (by its name or its shorter one): its antenna's table holds every state
+        group = connected(data, vary.table).group
+    except ValueError:
+        group = None
+    if group is not None:
+        raise VaryError(
+            vary.text,
+            f"{vary.table!r} is one state of the switched antenna {group!r}, whose table holds every state: a sweep "
+            f"varies the table as written, every state alike (a row each); write '{group}: {vary.key} = ...'",
+        )
     names = [c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)]
     targets = [t.get("name") for t in data.get("target", []) if isinstance(t, dict)]
     if vary.table in targets:
@@ -518,10 +530,10 @@ def placement_warnings(sc, names: set[str]) -> dict[str, str]:
 
     out: dict[str, list[str]] = {}
     for n in site_notices(sc, only=names):
-        # a crossing is said of the first of the two wires in the file: here of the design's
-        name = n.antenna if n.antenna in names else n.values.get("other")
-        if n.code in PLACEMENT_CODES and n.code not in out.get(name, []):
-            out.setdefault(name, []).append(n.code)
+        # a crossing is said of the first of the two wires in the file: here of each of the two the design holds
+        for name in {n.antenna, n.values.get("other")} & set(names):
+            if n.code in PLACEMENT_CODES and n.code not in out.get(name, []):
+                out.setdefault(name, []).append(n.code)
     return {k: "; ".join(v) for k, v in out.items()}
 
 

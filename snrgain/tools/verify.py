@@ -296,7 +296,8 @@ def assign_targets(pairs: pd.DataFrame, targets: list[tuple[str, float]], width_
 
 def scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[float]) -> dict:
     """The scenario's tables with the logs' months and hours, every target listened then, and only the antennas
-    the comparison needs (A, B, and the parts of a combination among them)."""
+    the comparison needs (A, B, and the parts of a combination among them; a state of a switched antenna keeps its
+    antenna's table)."""
     import copy
 
     d = copy.deepcopy(data)
@@ -304,23 +305,36 @@ def scenario_copy(data: dict, a: str, b: str, months: list[int], hours: list[flo
     for t in [*d.get("target", []), d.get("band") if isinstance(d.get("band"), dict) else {}]:
         t.pop("months", None)
         t.pop("utc_hours", None)
-    ref_name = d.get("reference", {}).get("name", "reference")
-    names = {a, b}
+    ca, cb = antennas_compared(data, a, b)
+    names = {ca.table, cb.table}
     cands = d.get("candidate", [])
     for _ in range(3):  # combinations of combinations, a few levels
         for c in cands:
             if c.get("name") in names:
                 names |= set(c.get("antennas", []))
     d["candidate"] = [c for c in cands if c.get("name") in names]
-    known = {ref_name, "reference", *(c.get("name") for c in cands)}
-    for n in (a, b):
-        if n not in known:
-            raise ValueError(
-                f"antenna {n!r} is not in the scenario; its antennas are: {', '.join(sorted(str(k) for k in known))}"
-            )
-    if {a, b} <= {ref_name, "reference"}:  # "reference" is the reference's other name
-        raise ValueError(f"--a {a!r} and --b {b!r} both name the reference ({ref_name!r}): compare two antennas")
     return d
+
+
+def antennas_compared(data: dict, a: str, b: str):
+    """The antennas --a and --b name in the scenario's tables (snrgain.scenario.connected: a switched antenna's
+    state by its whole name or its shorter one), as (Connected, Connected); ValueError naming the option where one
+    names no antenna, a switched antenna without its state, or both name one antenna."""
+    from snrgain.scenario import connected
+
+    out = []
+    for option, name in (("--a", a), ("--b", b)):
+        try:
+            out.append(connected(data, name))
+        except ValueError as exc:
+            raise ValueError(f"{option}: {exc}") from None
+    ca, cb = out
+    ref_name = data.get("reference", {}).get("name", "reference")
+    if {ca.table, cb.table} == {ref_name} and ca.group is None:  # "reference" is the reference's other name
+        raise ValueError(f"--a {a!r} and --b {b!r} both name the reference ({ref_name!r}): compare two antennas")
+    if ca.name == cb.name:  # a state by its whole name and by its shorter one
+        raise ValueError(f"--a {a!r} and --b {b!r} both name {ca.name!r}: compare two antennas")
+    return ca, cb
 
 
 _scenario_copy = scenario_copy  # the name the verify tests use
@@ -477,8 +491,9 @@ def verify(
 ) -> VerifyResult:
     """Read, pair, place, summarise and compare with the prediction (see the module's steps).
 
-    ``scenario``: its path (or, with ``predict_too=False``, a loaded Scenario)."""
-    from snrgain.scenario import Scenario, load
+    ``scenario``: its path (or, with ``predict_too=False``, a loaded Scenario).  ``a_name`` and ``b_name``: the
+    antennas the logs were heard on (a switched antenna's state: snrgain.scenario.connected)."""
+    from snrgain.scenario import Scenario, load, read_source
 
     if isinstance(scenario, Scenario):
         if predict_too:
@@ -486,6 +501,8 @@ def verify(
         sc = scenario
     else:
         sc = load(scenario, p372_dir=p372_dir)
+        data, _, _ = read_source(Path(scenario))
+        a_name, b_name = (c.name for c in antennas_compared(data, a_name, b_name))  # a state: as rank names it
     problems = logs.Problems()
     if spots is not None:
         try:
