@@ -29,8 +29,15 @@ class BandResults:
 
     @property
     def warnings(self) -> list[str]:
-        """Every band's warnings, each marked with its band."""
-        return [f"[{name}] {w}" for name, r in self.bands for w in r.warnings]
+        """Every band's warnings, each marked with its band; one said word for word in several bands (a whip's
+        overload by the same station) once, marked with all of them, where it was first said."""
+        bands_of: dict[str, list[str]] = {}
+        for name, r in self.bands:
+            for w in r.warnings:
+                names = bands_of.setdefault(w, [])
+                if name not in names:
+                    names.append(name)
+        return [f"[{', '.join(names)}] {w}" for w, names in bands_of.items()]
 
     def plan_dict(self) -> dict[str, Any]:
         from snrgain.model.results import plan_to_dict
