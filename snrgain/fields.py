@@ -29,7 +29,14 @@ from pydantic import (
 from snrgain.physics import ground as groundmod
 from snrgain.physics import lines
 from snrgain.problems import not_finite, toml_repr
-from snrgain.units import DIMENSIONS, parse_attenuation_db_per_100m, parse_db, parse_power_dbm, parse_quantity
+from snrgain.units import (
+    DIMENSIONS,
+    length_said,
+    parse_attenuation_db_per_100m,
+    parse_db,
+    parse_power_dbm,
+    parse_quantity,
+)
 
 SI_CONTEXT = {"si": True}
 """Validation context in which bare numbers in quantity fields are SI values."""
@@ -53,6 +60,8 @@ _SI_SYMBOL = {
 def _fmt(x: float, dimension: str) -> str:
     if dimension == "angle":
         return f"{np.degrees(x):g} deg"
+    if dimension == "length":
+        return length_said(x)
     if dimension == "frequency" and x >= 1e3:
         return f"{x / 1e6:g} MHz" if x >= 1e5 else f"{x / 1e3:g} kHz"
     return f"{x:g} {_SI_SYMBOL[dimension]}"

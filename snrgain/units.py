@@ -27,8 +27,12 @@ Levels in dB are parsed here too: ``"-95 dBm"`` (power), ``"S7"`` or
 
 from __future__ import annotations
 
+import math
 import re
 import unicodedata
+from collections.abc import Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
 
 import numpy as np
 
@@ -413,6 +417,53 @@ def length_both_text(x_m: float, unit: str = "m", decimals: int = 1, other_decim
     """A length in the unit shown, then in the other one in brackets: "29.0 m (95 ft)" or "95.1 ft (29 m)"."""
     other = "m" if unit == "ft" else "ft"
     return f"{length_text(x_m, unit, decimals)} ({length_text(x_m, other, other_decimals)})"
+
+
+_SAID_IN: ContextVar[str] = ContextVar("snrgain_lengths_said_in", default="m")
+"""The unit the lengths of messages are said in while a scenario is read (:func:`lengths_said_in`)."""
+
+
+@contextmanager
+def lengths_said_in(unit: str) -> Iterator[None]:
+    """Within the block, :func:`length_said` quotes lengths in ``unit`` ("m" or "ft": the scenario's, while it is
+    read and checked), restored on leaving; outside any such block, metres."""
+    per_m(unit)  # a unit it cannot show is refused here
+    token = _SAID_IN.set(unit)
+    try:
+        yield
+    finally:
+        _SAID_IN.reset(token)
+
+
+def significant_text(x: float, digits: int = 4) -> str:
+    """``x`` to ``digits`` significant figures without an exponent, trailing zeros dropped: 18.288 -> "18.29",
+    60.0000001 -> "60", 0.0010 -> "0.001", 1234.6 -> "1235" (whole numbers keep every digit)."""
+    x = float(x)
+    if x == 0.0 or not math.isfinite(x):
+        return f"{x + 0.0:g}"
+    decimals = max(0, digits - 1 - math.floor(math.log10(abs(x))))
+    out = f"{x:.{decimals}f}"
+    if "." in out:
+        out = out.rstrip("0").rstrip(".")
+    return "0" if out == "-0" else out
+
+
+def length_said(x_m: float, unit: str | None = None, decimals: int | None = None) -> str:
+    """A length [m] as a message quotes it: in ``unit`` (default: the unit of :func:`lengths_said_in`, metres
+    outside it) to four significant figures, and after a length in feet the metres to three: "18.29 m",
+    "60 ft (18.3 m)" (never the 18.288 m a file's "60 ft" is inside).  ``decimals``: that many places in both
+    instead (a gap between two things on the plan: "0.50 m", "1.64 ft (0.50 m)").
+
+    >>> length_said(18.288), length_said(18.288, "ft"), length_said(0.6096, "ft"), length_said(0.5, "ft", 2)
+    ('18.29 m', '60 ft (18.3 m)', '2 ft (0.61 m)', '1.64 ft (0.50 m)')
+    """
+    unit = _SAID_IN.get() if unit is None else unit
+    if decimals is None:
+        shown, metres = significant_text(float(x_m) * per_m(unit)), significant_text(x_m, 3)
+    else:
+        fmt = f"{{:.{decimals}f}}"
+        shown, metres = number_text(float(x_m) * per_m(unit), fmt), number_text(x_m, fmt)
+    return f"{shown} {unit}" if unit == "m" else f"{shown} {unit} ({metres} m)"
 
 
 def length_literal(x_m: float, unit: str = "m", decimals: int = 1) -> str:

@@ -94,6 +94,90 @@ def test_beverage_next_to_a_medium_wave_station_is_warned_with_level_and_filter(
     assert not quiet.strong_signals
 
 
+@pytest.mark.parametrize(
+    ("station_hz", "listen_hz", "kind", "why"),
+    [
+        (1.008e6, 1.83e6, "high-pass", ""),  # a broadcaster below a 160 m listener
+        (3.6e6, 1.83e6, "low-pass", ""),  # an 80 m transmitter above him
+        (0.88e6, 0.6e6, "trap", "broadcast band"),  # above a medium-wave listener, in the same broadcast band
+        (0.6e6, 1.55e6, "trap", "broadcast band"),  # below one, in the same broadcast band
+        (1.7e6, 1.83e6, "trap", "close"),  # 7 % away: no high-pass turns over between them
+        (1.9e6, 1.83e6, "trap", "close"),
+    ],
+)
+def test_the_filter_kind_follows_where_the_station_lies(station_hz, listen_hz, kind, why):
+    assert st.filter_kind(station_hz, listen_hz) == (kind, why)
+
+
+def test_overload_filters_by_hand():
+    # safe level -5 dBm (0.316 mW); 0 dBm at 0.88 MHz and -3 dBm at 3.6 MHz for a 0.6 MHz listener, and -30 dBm at
+    # 0.3 MHz (0.001 mW, under a tenth of the safe level: left out); the two loud ones need
+    # 10 log10((1 + 0.501) / (0.316 - 0.001)) = 6.78 dB each
+    levels = {"county": (0.88e6, 0.0), "faint": (0.3e6, -30.0), "ham": (3.6e6, -3.0)}
+    got = st.overload_filters(levels, 0.6e6, -5.0)
+    said = [(f.kind, f.stations, f.freq_hz) for f in got]
+    assert said == [("trap", ("county",), (0.88e6,)), ("low-pass", ("ham",), (3.6e6,))]
+    safe = 10 ** (-5 / 10)
+    assert got[0].rejection_db == pytest.approx(10 * np.log10((1 + 10**-0.3) / (safe - 1e-3)), abs=1e-9)
+    assert got[1].rejection_db == got[0].rejection_db
+    # two below a 160 m listener: one high-pass for both; nothing when the total is already safe
+    both = st.overload_filters({"a": (0.81e6, 0.0), "b": (1.008e6, 0.0)}, 1.83e6, -5.0)
+    assert [(f.kind, f.stations) for f in both] == [("high-pass", ("a", "b"))]
+    assert both[0].rejection_db == pytest.approx(10 * np.log10(2 / safe))
+    assert st.overload_filters({"a": (0.81e6, -6.0)}, 1.83e6, -5.0) == []
+
+
+@pytest.mark.parametrize(
+    ("band", "station", "said"),
+    [
+        ("1.83 MHz", "1.008 MHz", "a high-pass filter turning over between 1.008 MHz and the 1.83 MHz listened to"),
+        ("0.6 MHz", "0.88 MHz", "a trap (notch) tuned to 0.88 MHz for Kestrel medium-wave relay (it shares the "),
+        ("1.83 MHz", "3.5 MHz", "a low-pass filter turning over between the 1.83 MHz listened to and 3.5 MHz"),
+    ],
+)
+def test_the_overload_warning_names_the_filter_that_fits(band, station, said):
+    # a station above a medium-wave listener was once told "a high-pass below the band", which does nothing for it
+    text = SITE.read_text().replace('frequency = "1.83 MHz"', f'frequency = "{band}"')
+    text = text.replace('frequency = "1.008 MHz"', f'frequency = "{station}"')
+    r = snrgain.evaluate(text)
+    warned = [w for w in r.warnings if "nearby transmitters" in w]
+    assert warned and all(said in w for w in warned), warned
+    assert not any("high-pass" in w for w in warned if "high-pass" not in said)
+
+
+def test_a_warning_said_alike_in_several_bands_is_printed_once_naming_them():
+    from types import SimpleNamespace
+
+    from snrgain.model.bands import BandResults
+
+    same = "whip: nearby transmitters put -2 dBm into the receiver; a trap (notch) tuned to 0.88 MHz ..."
+    bands = (
+        ("MW low", SimpleNamespace(warnings=[same, "only MW low's"])),
+        ("MW mid", SimpleNamespace(warnings=[same])),
+        ("160m", SimpleNamespace(warnings=["whip: ... a high-pass filter ...", same])),
+    )
+    assert BandResults(bands).warnings == [
+        f"[MW low, MW mid, 160m] {same}",
+        "[MW low] only MW low's",
+        "[160m] whip: ... a high-pass filter ...",
+    ]
+
+
+def test_a_whip_overloaded_alike_in_three_medium_wave_bands_is_warned_once():
+    base, station = SITE.read_text().split("[[strong_signal]]")
+    base = base.replace('[band]\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n', "")
+    bands = "".join(
+        f'[[band]]\nname = "{n}"\nfrequency = "{f}"\nbandwidth = "6 kHz"\n\n'
+        for n, f in (("MW low", "0.6 MHz"), ("MW mid", "1.0 MHz"), ("160m", "1.83 MHz"))
+    )
+    r = snrgain.evaluate_bands(bands + base + "[[strong_signal]]" + station)
+    whip = [w for w in r.warnings if "short vertical: nearby transmitters" in w]
+    # the two medium-wave bands get the same trap, word for word: once, naming both; 160 m its own high-pass
+    assert len(whip) == 2, whip
+    assert whip[0].startswith("[MW low, MW mid] short vertical:") and "trap (notch) tuned to 1.008 MHz" in whip[0]
+    assert whip[1].startswith("[160m] short vertical:") and "high-pass filter" in whip[1]
+
+
 def test_two_stations_mixing_into_the_band_are_warned():
     # 0.81 + 1.02 MHz = 1.83 MHz: a second-order product right in the band listened to.
     text = SITE.read_text().replace('frequency = "1.008 MHz"', 'frequency = "1.02 MHz"')

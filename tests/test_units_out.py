@@ -155,3 +155,107 @@ def test_signed_values_in_sentences_and_figures_read_without_a_minus_zero():
         "+3.14",
     )
     assert signed_text(-0.004, 0) == "+0" and signed_text(float("-inf")) == "-inf"
+
+
+FEET_SITE = """
+[site]
+name = "Fernhill (invented)"
+latitude = 42.0
+longitude = -72.0
+ground = "moist loam"
+
+[band]
+frequency = "1.83 MHz"
+bandwidth = "500 Hz"
+
+[time]
+months = [12]
+utc_hours = [2]
+
+[noise.man_made]
+environment = "rural"
+
+[[target]]
+name = "Europe"
+bearing = 45
+elevation = ["5 deg", "25 deg"]
+
+[reference]
+family = "vertical"
+height = "24 ft"
+
+[[candidate]]
+name = "Beverage"
+family = "beverage"
+length = "550 ft"
+height = "60 ft"
+bearing = 45
+position = ["100 ft", "0 ft"]
+
+[[candidate]]
+name = "loop"
+family = "small-loop"
+width = "6 ft"
+loop_height = "6 ft"
+height = "2 ft"
+bearing = 45
+position = ["60 ft", "-40 ft"]
+
+[[candidate]]
+name = "ranged"
+family = "beverage"
+length = "550 ft"
+height = "7 ft"
+bearing = 45
+position = ["-100 ft", "0 ft"]
+place = { bearing = ["30 deg", "60 deg"], length = ["600 ft", "200 ft"] }
+"""
+
+
+def _problems(text: str) -> dict[str, str]:
+    with pytest.raises(ScenarioError) as err:
+        load(tomllib.loads(text))
+    return dict(err.value.problems)
+
+
+def test_the_length_a_message_quotes():
+    from snrgain.units import length_said, lengths_said_in, significant_text
+
+    assert [significant_text(x) for x in (18.288, 60.0000001, 0.001, 1234.6, 0.0, -0.00001)] == [
+        "18.29",
+        "60",
+        "0.001",
+        "1235",
+        "0",
+        "-0.00001",
+    ]
+    assert length_said(18.288) == "18.29 m"
+    assert length_said(18.288, "ft") == "60 ft (18.3 m)"
+    assert length_said(0.5, "ft", decimals=2) == "1.64 ft (0.50 m)" and length_said(0.5, decimals=2) == "0.50 m"
+    with lengths_said_in("ft"):
+        assert length_said(7.3152) == "24 ft (7.32 m)"
+        with lengths_said_in("m"):
+            assert length_said(7.3152) == "7.315 m"
+        assert length_said(7.3152) == "24 ft (7.32 m)"
+    assert length_said(7.3152) == "7.315 m"  # metres again outside
+    with pytest.raises(ValueError, match="one of m, ft"), lengths_said_in("yd"):
+        pass
+
+
+def test_errors_of_a_file_in_feet_quote_its_feet():
+    # they quoted the metres inside, to four decimals: "height: 18.288 m is 0.112 wavelengths", "(0.6096 m)",
+    # "(182.88 m > 60.96 m)"
+    got = _problems(FEET_SITE)
+    assert got['candidate 1 ("Beverage")'].startswith("height: 60 ft (18.3 m) is 0.112 wavelengths at 1.83 MHz")
+    assert got['candidate 2 ("loop")'] == (
+        "height: the loop's centre at 2 ft (0.61 m) must be at least half the loop's height, 3 ft (0.914 m)"
+    )
+    assert got['candidate 3 ("ranged").place'] == "length: the range runs backwards: 600 ft (183 m) > 200 ft (61 m)"
+    # a field's range in feet too, with the metres it is set in
+    got = _problems(FEET_SITE.replace('height = "60 ft"', 'height = "600 ft"'))
+    assert got['candidate 1 ("Beverage").height'] == 'must be > 0.164 ft (0.05 m) and <= 98.43 ft (30 m); got "600 ft"'
+    # the same file in metres: metres, rounded
+    metric = FEET_SITE.replace("[site]\n", '[site]\nunits = "m"\n')
+    assert _problems(metric)['candidate 1 ("Beverage")'].startswith("height: 18.29 m is 0.112 wavelengths")
+    every = " ".join(_problems(FEET_SITE).values())
+    assert not re.search(r"\d\.\d{4}", every), every  # never the metres inside to four decimals

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -93,6 +94,48 @@ def test_bootstrap_is_seeded():
     a = vf.median_interval(x, rng=np.random.default_rng(7))
     b = vf.median_interval(x, rng=np.random.default_rng(7))
     assert a == b
+
+
+def test_the_same_pairs_get_the_same_interval_and_verdict_in_every_row():
+    # every pair at one hour: the all-hours row and that hour's row hold the same pairs, so they must show one
+    # interval and one verdict (one generator for all the groups drew different resamples for each row)
+    import pandas as pd
+
+    diffs = np.round(np.random.default_rng(3).normal(1.7, 0.8, 60))
+    placed = pd.DataFrame({"target": "east", "hour": 2, "diff_db": diffs})
+    for seed in range(1, 6):
+        pooled, hourly = vf.summarise(placed, ["east"], None, n_boot=400, seed=seed)
+        assert (pooled.hour, hourly.hour) == (None, 2)
+        assert (pooled.median_db, pooled.low_db, pooled.high_db) == (hourly.median_db, hourly.low_db, hourly.high_db)
+    # the pairs in another order are the same set of pairs; other pairs draw from another stream
+    assert vf.pairs_generator(diffs[::-1], 4).random() == vf.pairs_generator(diffs, 4).random()
+    assert vf.pairs_generator(diffs + 1.0, 4).random() != vf.pairs_generator(diffs, 4).random()
+    assert vf.pairs_generator(diffs, 5).random() != vf.pairs_generator(diffs, 4).random()
+
+
+@pytest.mark.parametrize(
+    ("low", "high", "p10", "p90", "expected"),
+    [
+        (1.400, 1.9, -0.4, 1.388, "agrees"),  # shown as +1.4 against a band top of +1.4: not above it
+        (1.46, 1.9, -0.4, 1.388, "measured better"),  # +1.5 against +1.4
+        (-2.0, -1.04, -0.96, 1.0, "agrees"),  # shown as -1.0 against a band bottom of -1.0: not below it
+        (-2.0, -1.06, -0.96, 1.0, "measured worse"),  # -1.1 against -1.0
+    ],
+)
+def test_a_verdict_rests_on_the_numbers_as_shown(low, high, p10, p90, expected):
+    g = vf.Group("east", None, 60, 0.5 * (low + high), low, high, 0.5, 0.5 * (p10 + p90), p10, p90)
+    got, _ = vf.verdict(g, 20)
+    assert got == expected
+    r = vf.VerifyResult("A", "B", "160m", [12], [2], "rule", None, [g], None)
+    sentence = vf.verdict_sentence(r, vf.Group(**{**g.__dict__, "verdict": got}))
+    shown = [float(x) for x in re.findall(r"[-+]\d+\.\d", sentence)]
+    # measured median (low to high), predicted median (p10 to p90), as printed
+    if got == "measured better":
+        assert shown[1] > shown[5]
+    elif got == "measured worse":
+        assert shown[2] < shown[4]
+    else:
+        assert shown[1] <= shown[5] and shown[2] >= shown[4]
 
 
 # ---- the hand-made log pair: every problem counted and named by line

@@ -98,7 +98,7 @@ from snrgain.memo import Memo
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients, rod_resistance_ohm
 from snrgain.records import record
-from snrgain.units import bearing_deg
+from snrgain.units import bearing_deg, length_said
 
 MAX_HEIGHT_WAVELENGTHS = 0.1
 
@@ -334,7 +334,7 @@ class BogParams(WireParams):
         if self.depth > 0 and self.height is not None:
             raise ValueError(
                 "give height (the axis above the soil, or 'on soil') or depth (the axis below the surface of a "
-                f"buried wire), not both; got height {self.height!r} m and depth {self.depth:g} m"
+                f"buried wire), not both; got height {length_said(self.height)} and depth {length_said(self.depth)}"
             )
         b = self.radius_m + self.insulation_thickness
         if 0 < self.depth < b:
@@ -875,7 +875,7 @@ class LongWire(SkyTermination, TransformerFeed, Antenna):
         h_wl = self.wire_height_m() * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
             raise ValueError(
-                f"height: {self.wire_height_m():g} m is {h_wl:.3f} wavelengths at {freq_hz / 1e6:g} MHz; "
+                f"height: {length_said(self.wire_height_m())} is {h_wl:.3f} wavelengths at {freq_hz / 1e6:g} MHz; "
                 f"the line model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths"
             )
 

@@ -37,7 +37,7 @@ from snrgain.fields import Bearing, GroundField, WireSize, make_ground, quantity
 from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, MU0_H_PER_M, reflection_coefficients
 from snrgain.physics.quadrature import gauss_legendre
-from snrgain.units import bearing_deg
+from snrgain.units import bearing_deg, length_said
 
 
 class SmallLoopParams(WireSize, AntennaParams):
@@ -53,8 +53,8 @@ class SmallLoopParams(WireSize, AntennaParams):
     def _fits(self):
         if self.height < self.loop_height / 2:
             raise ValueError(
-                f"height (of the loop's centre, {self.height:g} m) must be at least half the loop's "
-                f"height ({self.loop_height / 2:g} m)"
+                f"height: the loop's centre at {length_said(self.height)} must be at least half the loop's "
+                f"height, {length_said(self.loop_height / 2)}"
             )
         return self
 
@@ -74,7 +74,7 @@ class SmallLoop(Antenna):
         perimeter = 2 * (self.params.width + self.params.loop_height) * self.params.turns
         if perimeter > 0.1 * lam:
             raise ValueError(
-                f"width, loop_height: the loop's wire ({perimeter:g} m) exceeds a tenth of a wavelength "
+                f"width, loop_height: the loop's wire ({length_said(perimeter)}) exceeds a tenth of a wavelength "
                 f"at {freq_hz / 1e6:g} MHz; the small-loop model does not hold"
             )
 

@@ -69,6 +69,7 @@ from snrgain.fields import GroundField, make_ground, quantity
 from snrgain.memo import Memo
 from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, vertical_reflection
 from snrgain.physics.quadrature import gauss_legendre
+from snrgain.units import length_said
 
 MAX_HEIGHT_WAVELENGTHS = 0.625
 """The sinusoidal-current model is used up to a 5/8-wave vertical."""
@@ -128,7 +129,7 @@ def thin_wire_current(freq_hz: float, height_m: float, radius_m: float, image: c
     def make():
         n = pulses(height_m, radius_m)
         if n < 2:
-            raise ValueError(f"height: {height_m:g} m is too short for a wire of {radius_m:g} m radius")
+            raise ValueError(f"height: {length_said(height_m)} is too short for a wire of {radius_m:g} m radius")
         dz = height_m / n
         i = np.arange(n)
         current = _remembered_current(key, n, lambda: _solve_current(freq_hz, height_m, radius_m, image, n))
@@ -214,8 +215,9 @@ class Vertical(Antenna):
         h_wl = (self.height_m + self.top_m) * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
             raise ValueError(
-                f"height: {self.height_m:g} m (plus {self.top_m:g} m of top loading) is {h_wl:.2f} wavelengths at "
-                f"{freq_hz / 1e6:g} MHz; the vertical model holds up to {MAX_HEIGHT_WAVELENGTHS} wavelengths"
+                f"height: {length_said(self.height_m)}, plus {length_said(self.top_m)} of top loading, is {h_wl:.2f} "
+                f"wavelengths at {freq_hz / 1e6:g} MHz; the vertical model holds up to {MAX_HEIGHT_WAVELENGTHS} "
+                "wavelengths"
             )
 
     def _form_factor(self, k, sin_psi, r_v):

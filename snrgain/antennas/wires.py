@@ -36,6 +36,7 @@ from pydantic import BeforeValidator, Field, model_validator
 from snrgain.antennas.base import Antenna, AntennaParams, TransformerFeed, above_horizon, register
 from snrgain.fields import GroundField, StrictModel, lengths, make_ground, quantity, wire_radius_m
 from snrgain.physics.ground import C_M_PER_S
+from snrgain.units import length_said
 
 MIN_LOSSY_HEIGHT_WAVELENGTHS = 0.05
 
@@ -43,7 +44,7 @@ MIN_LOSSY_HEIGHT_WAVELENGTHS = 0.05
 def _xyz(value):
     out = lengths(value, 3, what="a point [east, north, up]", example='[0, 0, "12 m"]', limit_m=5000)
     if out[2] < 0:
-        raise ValueError(f"a wire cannot go below the ground (up = {out[2]:g} m)")
+        raise ValueError(f"a wire cannot go below the ground (up = {length_said(out[2])})")
     return out
 
 
@@ -123,15 +124,15 @@ class WireStructureParams(AntennaParams):
                     raise ValueError(f"{label}: no wire named {p.wire!r}; the named wires are {sorted(by_name)}")
                 if p.distance > by_name[p.wire].length_m + 1e-9:
                     raise ValueError(
-                        f"{label}: {p.distance:g} m along {p.wire!r} runs past its end "
-                        f"({by_name[p.wire].length_m:g} m long)"
+                        f"{label}: {length_said(p.distance)} along {p.wire!r} runs past its end "
+                        f"({length_said(by_name[p.wire].length_m)} long)"
                     )
             else:
                 gap = min(_distance_to_wire(p.point, w) for w in self.wires)
                 if gap > POINT_TOLERANCE_M:
                     raise ValueError(
-                        f"{label}: the point {list(p.point)} lies {gap:.2f} m from the nearest wire "
-                        f"(at most {POINT_TOLERANCE_M:g} m)"
+                        f"{label}: the point {list(p.point)} lies {length_said(gap, decimals=2)} from the nearest wire "
+                        f"(at most {length_said(POINT_TOLERANCE_M)})"
                     )
         return self
 
@@ -179,8 +180,8 @@ class WireStructure(TransformerFeed, Antenna):
             low = min(w.start[2], w.end[2])
             if not vertical and low < MIN_LOSSY_HEIGHT_WAVELENGTHS * lam:
                 raise ValueError(
-                    f"wires {i + 1}: at {low:g} m it is lower than {MIN_LOSSY_HEIGHT_WAVELENGTHS} wavelength "
-                    f"({MIN_LOSSY_HEIGHT_WAVELENGTHS * lam:.1f} m) over lossy ground, where the NEC-2 engine's "
+                    f"wires {i + 1}: at {length_said(low)} it is lower than {MIN_LOSSY_HEIGHT_WAVELENGTHS} wavelength "
+                    f"({length_said(MIN_LOSSY_HEIGHT_WAVELENGTHS * lam)}) over lossy ground, where the NEC-2 engine's "
                     "Sommerfeld solution is unreliable; raise it, use ground = 'perfect', or a family of snrgain's "
                     "own (beverage, bog, terminated-loop)"
                 )

@@ -29,11 +29,19 @@ class BandResults:
 
     @property
     def warnings(self) -> list[str]:
-        """Every band's warnings, each marked with its band; then what holds across the bands (``notices``)."""
+        """Every band's warnings, each marked with its band; one said word for word in several bands (a whip's
+        overload by the same station) once, marked with all of them, where it was first said; then what holds across
+        the bands (``notices``)."""
         from snrgain.outputs.messages import notice_text
 
+        bands_of: dict[str, list[str]] = {}
+        for name, r in self.bands:
+            for w in r.warnings:
+                names = bands_of.setdefault(w, [])
+                if name not in names:
+                    names.append(name)
         unit = self.bands[0][1].site.get("length_unit", "m") if self.bands else "m"
-        return [f"[{name}] {w}" for name, r in self.bands for w in r.warnings] + [
+        return [f"[{', '.join(names)}] {w}" for w, names in bands_of.items()] + [
             notice_text(n, unit=unit) for n in self.notices
         ]
 

@@ -48,6 +48,9 @@ class Notice:
     ``source-position`` (source, step_m, directions, low_db, high_db, share: a candidate whose noise and SNR gain
     move by 3 dB or more when a placed source moves step_m; with reference and read_on, the reference whose own
     noise moves that much; snrgain.decide.source_place).
+
+    ``strong-signal-overload`` also holds listen_hz and filters (kind, stations, frequencies_hz, rejection_db, why:
+    snrgain.physics.strong.overload_filters); its filter_db is their rejection.
     """
 
     code: str

@@ -106,6 +106,7 @@ def with_strong_signals(sc, results):
         headroom = limits.p1db_dbm - total_dbm
         if headroom < st.COMPRESSION_MARGIN_DB:
             loudest = max(at_stage, key=lambda n: at_stage[n][1])
+            filters = st.overload_filters(at_stage, listen_hz, limits.p1db_dbm - st.COMPRESSION_MARGIN_DB)
             notices.append(
                 Notice(
                     "strong-signal-overload",
@@ -119,7 +120,18 @@ def with_strong_signals(sc, results):
                         "p1db_dbm": limits.p1db_dbm,
                         "margin_db": st.COMPRESSION_MARGIN_DB,
                         "over_db": st.COMPRESSION_MARGIN_DB - headroom,
-                        "filter_db": st.COMPRESSION_MARGIN_DB - headroom,
+                        "filter_db": max(f.rejection_db for f in filters),
+                        "listen_hz": listen_hz,
+                        "filters": [
+                            {
+                                "kind": f.kind,
+                                "stations": list(f.stations),
+                                "frequencies_hz": list(f.freq_hz),
+                                "rejection_db": f.rejection_db,
+                                "why": f.why,
+                            }
+                            for f in filters
+                        ],
                         "assumed": [k for k in limits.assumed if k == "p1db"],
                         "upper_bound": not hasattr(built, "receiver_load_ohm"),
                     },

@@ -30,6 +30,38 @@ def _assumed(keys) -> str:
     return f" (its {', '.join(keys)} assumed: give them in [chain.preamp] or [receiver] from the datasheet)"
 
 
+_TRAP_WHY = {
+    "broadcast band": "it shares the medium-wave broadcast band with the frequency listened to, where a high- or "
+    "low-pass would cut off that band as well",
+    "close": "it lies too close to the frequency listened to for a high- or low-pass to turn over between them",
+}
+
+
+def _mhz(hz: float) -> str:
+    return f"{hz / 1e6:g} MHz"
+
+
+def _one_filter_text(f: dict, listen_hz: float) -> str:
+    """One filter of a strong-signal-overload notice (snrgain.physics.strong.overload_filters) in words."""
+    at = ", ".join(f"{name} at {_mhz(hz)}" for name, hz in zip(f["stations"], f["frequencies_hz"]))
+    if f["kind"] == "trap":
+        return f"a trap (notch) tuned to {_mhz(f['frequencies_hz'][0])} for {f['stations'][0]} ({_TRAP_WHY[f['why']]})"
+    if f["kind"] == "high-pass":
+        edge = f"between {_mhz(max(f['frequencies_hz']))} and the {_mhz(listen_hz)} listened to"
+    else:
+        edge = f"between the {_mhz(listen_hz)} listened to and {_mhz(min(f['frequencies_hz']))}"
+    return f"a {f['kind']} filter turning over {edge} (for {at})"
+
+
+def _overload_filters_text(v: dict) -> str:
+    """The filters that cure a strong-signal-overload notice: their kind follows where each station lies."""
+    filters = v["filters"]
+    n = sum(len(f["stations"]) for f in filters)
+    each = "the station" if n == 1 else f"each of those {n} stations"
+    said = " and ".join(_one_filter_text(f, v["listen_hz"]) for f in filters)
+    return f"; {said}, taking at least {v['filter_db']:.0f} dB off {each} before the first amplifier, cures it"
+
+
 _DETUNE_CAUTION = (
     "; detune it while receiving: a relay opening its feed (or switching in a detuning reactance), rated for the "
     "transmitter's power and voltage and switched so that the transmitter can never key into it open, per "
@@ -311,8 +343,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"safely (its 1 dB compression point {v['p1db_dbm']:+g} dBm less {v['margin_db']:g} dB)"
             + _assumed(v["assumed"])
             + _upper_bound(v)
-            + f"; a filter (e.g. a high-pass below the band) of at least {v['filter_db']:.0f} dB at those "
-            "frequencies before the first amplifier cures it"
+            + _overload_filters_text(v)
         )
     if n.code == "strong-signal-product":
         kind = "second" if v["order"] == 2 else "third"

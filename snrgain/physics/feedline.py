@@ -98,6 +98,7 @@ from snrgain.physics.ground import C_M_PER_S, ETA0_OHM, reflection_coefficients
 from snrgain.physics.quadrature import even_samples, gauss_legendre
 from snrgain.physics.reciprocity import LEAD_POINTS, graded_samples, pairs_rule, sample_steps
 from snrgain.records import record
+from snrgain.units import length_said
 
 CABLES: dict[str, tuple[float, float]] = {
     # generic type: (braid outer diameter, jacket outer diameter) [m], recalled from typical catalogue values
@@ -152,7 +153,10 @@ class FeedLine:
         if not self.station_ground_ohm > 0:
             raise ValueError(f"station_ground must be > 0 ohm; got {self.station_ground_ohm!r}")
         if not self.length_m >= 1.0:
-            raise ValueError(f"a feed line runs at least 1 m from the antenna to the station; got {self.length_m:g} m")
+            raise ValueError(
+                f"a feed line runs at least {length_said(1.0)} from the antenna to the station; "
+                f"got {length_said(self.length_m)}"
+            )
 
     @property
     def length_m(self) -> float:

@@ -45,6 +45,14 @@ intercept definitions; e.g. W. Hayward, R. Campbell and B. Larkin, "Experimental
 listening bandwidth.  The filter attenuation that cures it is the excess over the limit for compression, half of
 it for a second-order product and a third for a third-order one (each dB at both stations' frequencies lowers them
 by 2 or 3 dB).
+
+**The filter against compression** (:func:`overload_filters`).  Its kind follows where each offending station lies
+against the frequency listened to: below it a high-pass, above it a low-pass, each turning over between the
+offender nearest the band and the band; a station within the same broadcast band (the medium-wave band of ITU
+Radio Regulations Article 5, :data:`MW_BROADCAST_HZ`), or within :data:`CLOSE_FRACTION` of the frequency listened
+to, a trap (a notch) tuned to it: there a high- or low-pass would cut off the band listened to as well, or would
+have to turn over too steeply.  The offenders are the loudest stations down to where the rest together stay under
+:data:`UNFILTERED_SHARE` of the safe level; each needs the same rejection, the one that brings the total to it.
 """
 
 from __future__ import annotations
@@ -68,6 +76,16 @@ own choice: a safety margin for peaks of modulation and for blocking before comp
 IN_BAND_SPAN_HZ = 100e3
 """A product within this of the listening frequency counts as landing in the band listened to [Hz] (snrgain's own
 choice: about the width of a low band's busy part)."""
+
+MW_BROADCAST_HZ = (525e3, 1705e3)
+"""The medium-wave broadcast band [Hz]: 526.5-1606.5 kHz in ITU Regions 1 and 3, 525-1705 kHz in Region 2 (ITU
+Radio Regulations, Article 5); the union of the two."""
+CLOSE_FRACTION = 0.15
+"""A station within this fraction of the frequency listened to gets a trap rather than a high- or low-pass (snrgain's
+own choice: a few-section LC high- or low-pass does not turn over from pass to tens of dB within 15 %)."""
+UNFILTERED_SHARE = 0.1
+"""Stations left out of the filter advice may together reach at most this share of the safe level (snrgain's own
+choice: they then raise the filtered total by under 0.5 dB)."""
 
 
 @record
@@ -156,18 +174,77 @@ def products_in_band(levels_dbm: dict[str, tuple[float, float]], limits: StageLi
     return out
 
 
+@record
+class Filter:
+    """One filter before the first amplifier: ``kind`` ("high-pass", "low-pass" or "trap"), the stations it is for
+    and their frequencies [Hz], the rejection each of them needs [dB]; ``why`` for a trap: "broadcast band" (it
+    shares the medium-wave broadcast band with the frequency listened to) or "close" (within CLOSE_FRACTION)."""
+
+    kind: str
+    stations: tuple[str, ...]
+    freq_hz: tuple[float, ...]
+    rejection_db: float
+    why: str = ""
+
+
+def filter_kind(station_hz: float, listen_hz: float) -> tuple[str, str]:
+    """(kind, why) of the filter that takes a station at ``station_hz`` out ahead of a receiver at ``listen_hz``.
+
+    >>> filter_kind(1.008e6, 1.83e6), filter_kind(0.88e6, 0.6e6), filter_kind(3.6e6, 1.83e6)
+    (('high-pass', ''), ('trap', 'broadcast band'), ('low-pass', ''))
+    """
+    lo, hi = MW_BROADCAST_HZ
+    if lo <= station_hz <= hi and lo <= listen_hz <= hi:
+        return "trap", "broadcast band"
+    if abs(station_hz - listen_hz) <= CLOSE_FRACTION * listen_hz:
+        return "trap", "close"
+    return ("high-pass" if station_hz < listen_hz else "low-pass"), ""
+
+
+def overload_filters(levels_dbm: dict[str, tuple[float, float]], listen_hz: float, safe_dbm: float) -> list[Filter]:
+    """The filters that bring the stations' total power (name -> (freq [Hz], level at the stage's input [dBm]))
+    down to ``safe_dbm``: the loudest stations until the rest stay under UNFILTERED_SHARE of it, all given the
+    rejection that brings the total to ``safe_dbm``; one high-pass for those below, one low-pass for those above, a
+    trap for each one that needs it (:func:`filter_kind`).  Empty when the total is already safe."""
+    mw = {n: 10.0 ** (p / 10.0) for n, (_, p) in levels_dbm.items()}
+    safe = 10.0 ** (safe_dbm / 10.0)
+    if sum(mw.values()) <= safe:
+        return []
+    order = sorted(mw, key=lambda n: -mw[n])
+    k = next(k for k in range(1, len(order) + 1) if sum(mw[n] for n in order[k:]) <= UNFILTERED_SHARE * safe)
+    rest = sum(mw[n] for n in order[k:])
+    rejection = float(10.0 * np.log10(sum(mw[n] for n in order[:k]) / (safe - rest)))
+    out: list[Filter] = []
+    for n in sorted(order[:k], key=lambda n: levels_dbm[n][0]):  # by frequency
+        f = float(levels_dbm[n][0])
+        kind, why = filter_kind(f, listen_hz)
+        same = next((i for i, x in enumerate(out) if kind != "trap" and x.kind == kind), None)
+        if same is None:
+            out.append(Filter(kind, (n,), (f,), rejection, why))
+        else:  # one high-pass (or low-pass) takes all the stations on its side
+            x = out[same]
+            out[same] = Filter(kind, (*x.stations, n), (*x.freq_hz, f), rejection, why)
+    return out
+
+
 __all__ = [
+    "CLOSE_FRACTION",
     "COMPRESSION_MARGIN_DB",
     "CYMOMOTIVE_V_PER_SQRT_KW",
+    "Filter",
     "GRAZING_RAD",
     "IN_BAND_SPAN_HZ",
+    "MW_BROADCAST_HZ",
     "PREAMP_DEFAULTS",
     "Product",
     "RECEIVER_DEFAULTS",
     "StageLimits",
     "Station",
+    "UNFILTERED_SHARE",
     "dbm",
+    "filter_kind",
     "ground_wave_aperture_m2",
     "ground_wave_field_v_per_m",
+    "overload_filters",
     "products_in_band",
 ]

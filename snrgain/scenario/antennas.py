@@ -18,6 +18,7 @@ from snrgain.constants import placeable_families
 from snrgain.fields import Bearing, StrictModel, quantity
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.records import record
+from snrgain.units import length_said
 
 from .feedline import take_feed_line
 from .receiver import ChainSection
@@ -26,8 +27,7 @@ from .switched import expand_directions, far_end
 
 
 class PlaceSection(StrictModel):
-    """What ``snrgain layout`` may change of a candidate: its position (always, within the lot), and its bearing
-    and length within ranges."""
+    """What ``snrgain layout`` may change of a candidate: its position (within the lot), bearing and length (ranges)."""
 
     bearing: list[Bearing] | None = Field(default=None, min_length=2, max_length=2)
     """[from, to] compass bearings, clockwise (e.g. ["20 deg", "70 deg"])."""
@@ -37,7 +37,7 @@ class PlaceSection(StrictModel):
     @model_validator(mode="after")
     def _ranges(self):
         if self.length is not None and self.length[0] > self.length[1]:
-            raise ValueError(f"length: the range runs backwards ({self.length[0]:g} m > {self.length[1]:g} m)")
+            raise ValueError(f"length: the range runs backwards: {' > '.join(map(length_said, self.length))}")
         if self.bearing is not None:
             a, b = (float(np.degrees(x)) % 360.0 for x in self.bearing)
             span = (b - a) % 360.0

@@ -17,7 +17,7 @@ from snrgain.errors import ScenarioError
 from snrgain.physics import chain as chainmod
 from snrgain.physics import receiver as rx
 from snrgain.physics import targets as targetmod
-from snrgain.units import length_unit_of
+from snrgain.units import length_unit_of, lengths_said_in
 
 from .antennas import Built, build_antennas
 from .band import Band
@@ -65,23 +65,24 @@ def load(
         data, label, base_dir = read_source(source)
     data = one_band(data, band, label)
     length_unit = length_unit_of(data)
-    data, problems = plan_from_latlon(data)
-    model, more = validate(data)
-    problems += more
-    built = build_antennas(data, model.band.frequency if model else None, base_dir)
-    problems += built.problems
-    file_reference = built.antennas[0] if built.antennas and built.wheres[0] == "reference" else None
-    if reference is not None and not problems:
-        problems += choose_reference(built, reference)
-    resolved = resolve_sections(model, base_dir, p372_dir, problems)
-    transmitting, feed_lines = None, {}
-    if model is not None and built.antennas and not problems:
-        transmitting, feed_lines, more = _after_antennas(model, built, file_reference, length_unit)
+    with lengths_said_in(length_unit):  # its problems quote lengths in its unit (units.length_said)
+        data, problems = plan_from_latlon(data)
+        model, more = validate(data)
         problems += more
-    if problems:
-        raise ScenarioError(label, problems)
-    sc = assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
-    return replace(sc, feed_lines=feed_lines) if feed_lines else sc
+        built = build_antennas(data, model.band.frequency if model else None, base_dir)
+        problems += built.problems
+        file_reference = built.antennas[0] if built.antennas and built.wheres[0] == "reference" else None
+        if reference is not None and not problems:
+            problems += choose_reference(built, reference)
+        resolved = resolve_sections(model, base_dir, p372_dir, problems)
+        transmitting, feed_lines = None, {}
+        if model is not None and built.antennas and not problems:
+            transmitting, feed_lines, more = _after_antennas(model, built, file_reference, length_unit)
+            problems += more
+        if problems:
+            raise ScenarioError(label, problems)
+        sc = assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
+        return replace(sc, feed_lines=feed_lines) if feed_lines else sc
 
 
 def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:

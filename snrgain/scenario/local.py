@@ -9,6 +9,7 @@ import numpy as np
 
 from snrgain.antennas import Antenna
 from snrgain.constants import MIN_GAP_M
+from snrgain.units import length_said
 
 from .noise import LocalSource, resolve_local_source
 
@@ -133,9 +134,9 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
                 out.append(
                     (
                         f'noise.local {i + 1} ("{raw.name}").{key}',
-                        f"the source stands {gap:.2f} m from "
+                        f"the source stands {length_said(gap, decimals=2)} from "
                         f"{where if where != 'reference' else f'the reference ({ant.name!r})'}; place it at least "
-                        f"{MIN_SOURCE_GAP_M:g} m away from every antenna's feed point, wire and elements",
+                        f"{length_said(MIN_SOURCE_GAP_M)} away from every antenna's feed point, wire and elements",
                     )
                 )
                 break
@@ -147,8 +148,8 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
                     out.append(
                         (
                             f'noise.local {i + 1} ("{raw.name}").{key}',
-                            f"the source stands {gap:.2f} m from the structure {st.name!r}; place it at least "
-                            f"{MIN_SOURCE_GAP_M:g} m away from it",
+                            f"the source stands {length_said(gap, decimals=2)} from the structure {st.name!r}; place "
+                            f"it at least {length_said(MIN_SOURCE_GAP_M)} away from it",
                         )
                     )
                     break

@@ -13,7 +13,7 @@ from snrgain.constants import FREQ_RANGE_HZ
 from snrgain.fields import Bearing, Latitude, Longitude, StrictModel, quantity
 from snrgain.physics import strong as strongmod
 from snrgain.problems import toml_repr
-from snrgain.units import normalise_text
+from snrgain.units import length_said, normalise_text
 
 LIMIT_RANGE_DBM = (-40.0, 80.0)
 """Large-signal limits accepted [dBm, input-referred]."""
@@ -72,7 +72,7 @@ def resolve_stations(sections, site_lat_deg: float, site_lon_deg: float) -> tupl
 
             bearing, distance = geodesic(site_lat_deg, site_lon_deg, s.latitude, s.longitude)
             if distance < 10.0:
-                raise ValueError(f"its place is {distance:.0f} m from the site; 10 m at least")
+                raise ValueError(f"its place is {length_said(distance)} from the site; {length_said(10.0)} at least")
         else:
             distance, bearing = s.distance, s.bearing
         out.append(strongmod.Station(s.name, float(s.frequency), float(s.power), float(distance), float(bearing)))

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from snrgain.constants import MIN_GAP_M
 from snrgain.fields import Name, PlanPoint, StrictModel, quantity
+from snrgain.units import length_said
 
 
 class Structure(StrictModel):
@@ -92,7 +93,8 @@ def clear_of_scatterers(transmitting: str | None, built, site, placed_by_user=No
                 out.append(
                     (
                         f'site.structures {i + 1} ("{st.name}").position',
-                        f"it stands {gap:.2f} m from {what}: two structures cannot stand in one place",
+                        f"it stands {length_said(gap, decimals=2)} from {what}: two structures cannot stand in one "
+                        "place",
                     )
                 )
                 break
@@ -113,9 +115,10 @@ def clear_of_scatterers(transmitting: str | None, built, site, placed_by_user=No
                 out.append(
                     (
                         f"{where}.{key}",
-                        f"it stands {gap:.2f} m from {what} on the plan: two antennas cannot stand in one place; keep "
-                        f"every feed point, wire and element at least {MIN_GAP_M:g} m away (half a wavelength "
-                        "from a transmitting vertical is common practice)",
+                        f"it stands {length_said(gap, decimals=2)} from {what} on the plan: two antennas cannot "
+                        "stand in one place; keep every feed point, wire and element at least "
+                        f"{length_said(MIN_GAP_M)} away (half a wavelength from a transmitting vertical is common "
+                        "practice)",
                     )
                 )
                 break

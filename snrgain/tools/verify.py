@@ -20,11 +20,16 @@ The median of decoder SNRs: decoders report whole dB, so differences are whole d
 median interpolated within its class (the textbook median of grouped data, e.g. G. U. Yule and M. G. Kendall,
 "An Introduction to the Theory of Statistics" (1950), ch. 7; from memory).  The bootstrap resamples the pairs
 by multinomial counts over their distinct values, exactly the ordinary bootstrap and fast for whole-dB data.
+Its generator is seeded from the pairs themselves (with ``seed``), so one set of pairs always gets one interval:
+the all-hours row and an hour's row that hold the same pairs cannot get two verdicts.  A verdict compares the
+interval with the predicted band as both are shown, at 0.1 dB (:data:`SHOWN_DECIMALS`): it never says "measured
+better" beside two printed numbers that are equal.
 """
 
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
 from dataclasses import field
 from pathlib import Path
@@ -41,6 +46,12 @@ SECTOR_DEG = 45.0
 """Compass sectors for stations outside every target [deg]."""
 SMALL_N = 50
 """Below this many pairs a group is flagged as small (its interval is wide and itself uncertain)."""
+SHOWN_DECIMALS = 1
+"""Decimals of a dB the report shows; the verdict compares the interval and the band at this resolution."""
+VERDICT_RULE = (
+    f"the measured 90 % interval and the predicted 10-90 % band, each bound rounded to {10.0**-SHOWN_DECIMALS:g} dB: "
+    "the interval wholly above the band is 'measured better', wholly below 'measured worse', else 'agrees'"
+)
 
 
 # ---- statistics
@@ -89,6 +100,20 @@ def median_interval(values, *, rng: np.random.Generator, n_boot: int = 2000, lev
     a = (1.0 - level) / 2.0
     lo, hi = np.quantile(meds, [a, 1.0 - a])
     return med, float(lo), float(hi)
+
+
+def pairs_generator(values, seed: int = 1) -> np.random.Generator:
+    """The bootstrap's generator for one set of pairs: seeded from ``seed`` and the pairs' values (in any order).
+
+    >>> a = pairs_generator([2.0, -1.0, 3.0]).integers(1 << 30)
+    >>> b = pairs_generator([3.0, 2.0, -1.0]).integers(1 << 30)
+    >>> bool(a == b)
+    True
+    """
+    v = np.sort(np.asarray(values, dtype=np.float64).ravel()) + 0.0  # + 0.0: -0.0 and 0.0 alike
+    digest = hashlib.sha256(np.ascontiguousarray(v).tobytes()).digest()
+    words = np.frombuffer(digest, dtype="<u4").tolist()
+    return np.random.default_rng(np.random.SeedSequence([int(seed), *words]))
 
 
 # ---- results
@@ -157,6 +182,7 @@ class VerifyResult:
             "pairing_rule": self.rule,
             "pairs": len(self.pairs),
             "groups": [g.as_dict() for g in self.groups],
+            "verdict_rule": VERDICT_RULE,
             "verdicts": [
                 verdict_sentence(self, g) for g in self.groups if g.hour is None and g.predicted_db is not None
             ],
@@ -396,16 +422,22 @@ def predict(sc_path, a: str, b: str, months: list[int], hours: list[int], *, p37
 # ---- verdicts
 
 
+def _shown(x: float) -> float:
+    """A dB value as the report prints it (``format`` and ``round`` both round the exact binary value)."""
+    return round(float(x), SHOWN_DECIMALS)
+
+
 def verdict(g: Group, min_pairs: int) -> tuple[str | None, tuple[str, ...]]:
+    """The verdict on the interval and the band as shown (:data:`SHOWN_DECIMALS`), and the group's warnings."""
     warn = []
     if g.n < min_pairs:
         v = "too few pairs"
         warn.append("no pairs: no verdict" if g.n == 0 else f"only {g.n} pairs (fewer than {min_pairs}): no verdict")
     elif g.predicted_db is None:
         v = None
-    elif g.high_db < g.predicted_p10_db:
+    elif _shown(g.high_db) < _shown(g.predicted_p10_db):
         v = "measured worse"
-    elif g.low_db > g.predicted_p90_db:
+    elif _shown(g.low_db) > _shown(g.predicted_p90_db):
         v = "measured better"
     else:
         v = "agrees"
@@ -419,8 +451,8 @@ def verdict(g: Group, min_pairs: int) -> tuple[str | None, tuple[str, ...]]:
     return v, tuple(warn)
 
 
-def _group(name, hour, diffs, rng, n_boot, pred, min_pairs) -> Group:
-    med, lo, hi = median_interval(diffs, rng=rng, n_boot=n_boot)
+def _group(name, hour, diffs, seed, n_boot, pred, min_pairs) -> Group:
+    med, lo, hi = median_interval(diffs, rng=pairs_generator(diffs, seed), n_boot=n_boot)
     q1, q3 = np.quantile(diffs, [0.25, 0.75]) if len(diffs) else (np.nan, np.nan)
     p = pred.get((name, hour)) if pred else None
     g = Group(
@@ -446,8 +478,10 @@ def summarise(
     n_boot: int = 2000,
     seed: int = 1,
 ) -> list[Group]:
-    """Per target (all hours pooled, then each hour), then per sector outside every target (no prediction)."""
-    rng = np.random.default_rng(seed)
+    """Per target (all hours pooled, then each hour), then per sector outside every target (no prediction).
+
+    Each group's bootstrap draws from its own generator, seeded from ``seed`` and its pairs (:func:`pairs_generator`).
+    """
     groups = []
     by_target = {k: v for k, v in placed.groupby("target", sort=False)}
     names = list(target_names) + sorted(k for k in by_target if k not in target_names)
@@ -455,14 +489,14 @@ def summarise(
     for name in names:
         sub = by_target.get(name)
         diffs = sub["diff_db"].to_numpy(float) if sub is not None else np.array([])
-        groups.append(_group(name, None, diffs, rng, n_boot, pred, min_pairs))
+        groups.append(_group(name, None, diffs, seed, n_boot, pred, min_pairs))
         if name not in target_names:  # a compass sector: pooled only, no prediction to set beside its hours
             continue
         by_hour = dict(tuple(sub.groupby("hour"))) if sub is not None else {}
         for h in hours_all:
             if h not in by_hour:  # no decode toward this target at that hour: nothing to set beside the prediction
                 continue
-            groups.append(_group(name, int(h), by_hour[h]["diff_db"].to_numpy(float), rng, n_boot, pred, min_pairs))
+            groups.append(_group(name, int(h), by_hour[h]["diff_db"].to_numpy(float), seed, n_boot, pred, min_pairs))
     return groups
 
 
