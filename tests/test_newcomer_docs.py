@@ -1,0 +1,75 @@
+"""What a newcomer met following the README: check and rank agreeing, keys with units, unknown keys, the noise
+command without the P.372 data, messages that show the value, the README's own figures and examples."""
+
+import json
+import os
+import re
+import shutil
+import subprocess
+import sys
+
+import pytest
+from click.testing import CliRunner
+
+from snrgain.cli.main import cli
+from tests.conftest import REPO, SCENARIOS
+
+NEIGHBOUR_BY_BEARING = 'bearing = "270 deg"\n'
+NEIGHBOUR_PLACED = 'position = [-60, 20]\nheight = "2 m"\npolarisation = "vertical"\n'
+
+
+@pytest.fixture
+def runner():
+    return CliRunner()
+
+
+@pytest.fixture
+def demo_copy(tmp_path):
+    """alder-hollow.toml copied with its patterns/ folder beside it; returns a function writing a changed copy."""
+    shutil.copytree(SCENARIOS / "patterns", tmp_path / "patterns")
+    text = (SCENARIOS / "alder-hollow.toml").read_text(encoding="utf-8")
+
+    def write(old=None, new=None, extra="", name="a.toml"):
+        out = text if old is None else text.replace(old, new)
+        assert old is None or out != text
+        path = tmp_path / name
+        path.write_text(out + extra, encoding="utf-8")
+        return path
+
+    return write
+
+
+def _problems(res) -> str:
+    assert res.exit_code == 2, res.output
+    assert "Traceback" not in res.output
+    return res.output
+
+
+# -- 1. a placed source and a pattern table of total gain only ------------------------------------------------
+
+
+def test_a_total_gain_table_beside_a_placed_source_is_refused_by_check_and_rank_alike(runner, demo_copy):
+    # check said valid and rank stopped on "the table gives total gain only": a placed source's field has a
+    # polarisation, read through the partial gains, which a gain_dbi table does not give.
+    path = demo_copy(NEIGHBOUR_BY_BEARING, NEIGHBOUR_PLACED)
+    said = []
+    for command in ("check", "rank"):
+        out = _problems(runner.invoke(cli, [command, str(path)]))
+        assert 'candidate 4 ("cardioid pair toward Europe").file' in out
+        assert "cardioid-pair.csv" in out and "total gain only" in out
+        assert "gain_v_dbi and gain_h_dbi" in out and "by its bearing" in out
+        said.append(out.split("cardioid pair toward Europe", 1)[1])
+    assert said[0] == said[1]
+
+
+def test_a_table_with_both_partial_gains_reads_a_placed_source(runner, demo_copy, tmp_path):
+    # The refusal is about the missing columns, not pattern tables: the same pattern given as partial gains passes.
+    src = (tmp_path / "patterns" / "cardioid-pair.csv").read_text(encoding="utf-8").splitlines()
+    rows = [ln for ln in src if ln and not ln.startswith("#")]
+    assert rows[0] == "azimuth_deg,elevation_deg,gain_dbi"
+    table = ["azimuth_deg,elevation_deg,gain_v_dbi,gain_h_dbi"] + [f"{r},-100" for r in rows[1:]]
+    (tmp_path / "patterns" / "cardioid-pair.csv").write_text("\n".join(table) + "\n", encoding="utf-8")
+    res = runner.invoke(cli, ["check", str(demo_copy(NEIGHBOUR_BY_BEARING, NEIGHBOUR_PLACED))])
+    assert res.exit_code == 0, res.output
+
+
