@@ -73,3 +73,32 @@ def test_a_table_with_both_partial_gains_reads_a_placed_source(runner, demo_copy
     assert res.exit_code == 0, res.output
 
 
+# -- 2. z0 with its unit ------------------------------------------------------------------------------------------
+
+MEASURED = """
+[[candidate]]
+name = "Bev measured"
+family = "beverage"
+position = [0, -100]
+length = "250 m"
+height = "2 m"
+bearing = 45
+velocity_factor = 0.9
+attenuation = "2 dB/100m"
+z0 = {z0}
+"""
+
+
+def test_z0_takes_ohms_with_the_unit_or_as_a_bare_number(runner, demo_copy):
+    from snrgain.antennas import from_spec
+
+    for z0 in ('"500 ohm"', "500"):
+        res = runner.invoke(cli, ["check", str(demo_copy(extra=MEASURED.format(z0=z0)))])
+        assert res.exit_code == 0, res.output
+    spec = {"family": "beverage", "length": "250 m", "height": "2 m", "velocity_factor": 0.9, "attenuation": 2.0}
+    with_unit, bare = (from_spec({**spec, "z0": z}) for z in ("500 ohm", 500))
+    assert with_unit.params.z0 == bare.params.z0 == 500.0
+    out = _problems(runner.invoke(cli, ["check", str(demo_copy(extra=MEASURED.format(z0='"5000 ohm"')))]))
+    assert 'candidate 6 ("Bev measured").z0: must be > 0 ohm and <= 2000 ohm; got "5000 ohm"' in out
+
+
