@@ -102,3 +102,37 @@ def test_z0_takes_ohms_with_the_unit_or_as_a_bare_number(runner, demo_copy):
     assert 'candidate 6 ("Bev measured").z0: must be > 0 ohm and <= 2000 ohm; got "5000 ohm"' in out
 
 
+# -- 3. unknown keys ----------------------------------------------------------------------------------------------
+
+
+def test_unknown_keys_are_answered_from_the_table_read_and_named_with_their_section(runner, demo_copy):
+    # "did you mean" offered keys of other sections and looped: elevation -> min_elevation -> elevation.
+    path = demo_copy(
+        "[noise.galactic]\n",
+        "[noise.galactic]\nelevation = 5\n",
+        extra='[plan]\nmax_antennas = 2\n[compute]\nmin_elevation = 3\n[[candidate]]\nname = "x"\n'
+        'family = "beverage"\nlength = "100 m"\nheight = "2 m"\nlenght = 3\n',
+    )
+    text = path.read_text(encoding="utf-8").replace("[receiver]\n", "[receiver]\nmax_antennas = 2\nnoise_figur = 3\n")
+    path.write_text(text, encoding="utf-8")
+    out = _problems(runner.invoke(cli, ["check", str(path)]))
+    assert "noise.galactic.elevation: unknown key here: 'elevation' is a key of [[noise.local]] and [[target]]" in out
+    assert "receiver.max_antennas: unknown key here: 'max_antennas' is a key of [plan], not of this table" in out
+    assert "compute.min_elevation: unknown key here: 'min_elevation' is a key of [[target]]" in out
+    assert "receiver.noise_figur: unknown key (did you mean 'noise_figure'?)" in out
+    assert "lenght: unknown key (did you mean 'length'?)" in out
+    assert "did you mean 'min_elevation'" not in out and "did you mean 'antennas'" not in out
+
+
+def test_a_near_key_is_offered_only_from_the_table_read():
+    from snrgain.unknown_keys import unknown_key_message
+
+    # [noise.galactic] has no key near "min_elevation": nothing is offered from [[target]]'s keys as a spelling.
+    msg = unknown_key_message("ScenarioModel", ("noise", "galactic", "min_elevation"))
+    assert "did you mean" not in msg and "[[target]]" in msg
+    assert unknown_key_message("ScenarioModel", ("noise", "galactic", "enabeld")) == (
+        "unknown key (did you mean 'enabled'?)"
+    )
+    assert unknown_key_message("ScenarioModel", ("recever",)) == "unknown key (did you mean 'receiver'?)"
+
+
