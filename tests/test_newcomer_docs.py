@@ -136,3 +136,22 @@ def test_a_near_key_is_offered_only_from_the_table_read():
     assert unknown_key_message("ScenarioModel", ("recever",)) == "unknown key (did you mean 'receiver'?)"
 
 
+# -- 4. the noise command without the P.372 data ------------------------------------------------------------------
+
+
+def test_noise_without_the_p372_data_shows_the_other_rows_and_says_what_the_atmospheric_row_needs(monkeypatch):
+    monkeypatch.delenv("SNRGAIN_P372_DIR", raising=False)
+    args = ["noise", "--lat", "41.6", "--lon", "-72.35", "--month", "1", "--frequency", "1.83 MHz"]
+    res = CliRunner().invoke(cli, args)
+    assert res.exit_code == 0, res.output
+    assert "man-made (residential)" in res.stdout and "galactic" in res.stdout
+    assert "total, no atmospheric" in res.stdout and "Atmospheric noise arrival" not in res.stdout
+    assert "--p372-dir" in res.stderr and "SNRGAIN_P372_DIR" in res.stderr and "atmospheric row" in res.stderr
+    assert "data_dir" not in res.stderr and "given" not in res.stderr  # scenario keys the command has not
+    data = json.loads(CliRunner().invoke(cli, [*args, "--format", "json"]).stdout)
+    assert set(data["components"]) == {"man-made (residential)", "galactic"} and data["directions"] is None
+    assert any("--p372-dir" in w for w in data["warnings"])
+    nothing = CliRunner().invoke(cli, [*args, "--environment", "none", "--no-galactic"])
+    assert nothing.exit_code == 2 and "leaves nothing to show" in nothing.output
+
+
