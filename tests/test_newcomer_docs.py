@@ -155,3 +155,18 @@ def test_noise_without_the_p372_data_shows_the_other_rows_and_says_what_the_atmo
     assert nothing.exit_code == 2 and "leaves nothing to show" in nothing.output
 
 
+# -- 5. messages with the value -----------------------------------------------------------------------------------
+
+
+def test_a_reversed_elevation_range_shows_the_range_given(runner, demo_copy):
+    out = _problems(runner.invoke(cli, ["check", str(demo_copy("elevation = [5, 25]", "elevation = [25, 5]"))]))
+    assert 'target 1 ("Europe").elevation: the range [25, 5] deg is reversed' in out and "[5, 25]" in out
+
+
+@pytest.mark.parametrize("command", ["check", "rank", "layout"])
+def test_a_folder_given_as_the_scenario_gets_the_tools_own_message(runner, tmp_path, command):
+    (tmp_path / "figs").mkdir()
+    out = _problems(runner.invoke(cli, [command, str(tmp_path / "figs")]))
+    assert "is a folder, not a regular file; give a file" in out and "Usage:" not in out
+
+
