@@ -170,3 +170,33 @@ def test_a_folder_given_as_the_scenario_gets_the_tools_own_message(runner, tmp_p
     assert "is a folder, not a regular file; give a file" in out and "Usage:" not in out
 
 
+# -- 6, 7, 8, 9. the README's figures and examples as written --------------------------------------------------------
+
+
+def _wire(*extra):
+    args = ["wire", "--family", "bog", "--diameter", "1.6 mm", "--length", "250 ft", "--depth", "5 cm"]
+    out = []
+    for f in ("1.83 MHz", "3.6 MHz"):
+        res = CliRunner().invoke(cli, [*args, "--frequency", f, "--format", "json", *extra])
+        assert res.exit_code == 0, res.output
+        out.append(json.loads(res.stdout)["line"])
+    return out
+
+
+def test_the_readme_buried_bog_figures_come_from_wire_with_the_permittivity_it_states():
+    readme = " ".join((REPO / "README.md").read_text(encoding="utf-8").split())
+    assert "0.8 mm PVC of relative permittivity 3.5" in readme and "--insulation-permittivity 3.5" in readme
+    said = re.search(r"buried 5 cm deep, (\S+)-(\S+), (\d+)-(\d+) dB/100 m and (\d+)-(\d+) ohm", readme).groups()
+    vf, att, z0 = [tuple(float(x) for x in said[i : i + 2]) for i in (0, 2, 4)]
+    lines = _wire("--insulation-permittivity", "3.5")
+    assert (round(lines[0]["velocity_factor"], 2), round(lines[1]["velocity_factor"], 2)) == vf
+    assert tuple(round(ln["attenuation_db_per_100m"]) for ln in lines) == att
+    assert all(z0[0] <= abs(complex(*ln["z0_ohm"])) <= z0[1] for ln in lines)
+    default = re.search(r"permittivity 3 the buried wire loses (\d+)-(\d+) dB/100 m", readme).groups()
+    assert tuple(round(ln["attenuation_db_per_100m"]) for ln in _wire()) == tuple(int(x) for x in default)
+    res = CliRunner().invoke(
+        cli, ["wire", "--length", "80 m", "--frequency", "1.83 MHz", "--insulation-permittivity", "3"]
+    )
+    assert res.exit_code == 2 and "only a wire on the ground (bog)" in res.output
+
+
