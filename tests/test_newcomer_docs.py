@@ -200,3 +200,30 @@ def test_the_readme_buried_bog_figures_come_from_wire_with_the_permittivity_it_s
     assert res.exit_code == 2 and "only a wire on the ground (bog)" in res.output
 
 
+def test_the_readme_stdin_example_works_as_written():
+    readme = (REPO / "README.md").read_text(encoding="utf-8")
+    (folder, name) = re.search(r"`cd (\S+) && snrgain check - < (\S+)`", readme).groups()
+    res = subprocess.run(
+        [sys.executable, "-m", "snrgain.cli.main", "check", "-"],
+        stdin=(REPO / folder / name).open("rb"),
+        cwd=REPO / folder,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        env={**os.environ, "PYTHONPATH": str(REPO)},
+    )
+    assert res.returncode == 0, res.stderr
+    assert res.stdout.startswith("<standard input>: valid")
+
+
+def test_bench_help_lists_its_modes_and_runs_nothing():
+    res = subprocess.run(
+        [sys.executable, str(REPO / "benchmarks" / "bench.py"), "--help"],
+        capture_output=True,
+        text=True,
+        timeout=60,
+    )
+    assert res.returncode == 0, res.stderr
+    for mode in ("--site", "--bands", "--sweep", "--nec"):
+        assert mode in res.stdout
+    assert "cold start" not in res.stdout.lower()
