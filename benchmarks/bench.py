@@ -752,22 +752,45 @@ def site_stages(env, n: int = 3):
     print(f"{'stages together':<24}{work[0] * 1e3:>8.0f}{work[1] * 1e3:>8.0f}")
 
 
+def parse_args(argv=None):
+    """The benchmark's mode: none (everything, ~5 min) or one of --site, --nec, --bands, --sweep."""
+    import argparse
+
+    ap = argparse.ArgumentParser(
+        prog="python benchmarks/bench.py",
+        description="Wall times side by side in one run (not a test). Without an option every part runs (~5 min).",
+        epilog="The P.372 coefficient files are read from $SNRGAIN_P372_DIR, else from ../shared/data/p372 beside "
+        "the project.",
+    )
+    mode = ap.add_mutually_exclusive_group()
+    mode.add_argument(
+        "--site", action="store_true", help="only the realistic site, the PyNEC ratios and the kernels (~1 min)"
+    )
+    mode.add_argument("--nec", action="store_true", help="only the PyNEC ratios")
+    mode.add_argument("--bands", action="store_true", help="only three bands against one")
+    mode.add_argument(
+        "--sweep", action="store_true", help="only the 10,000-design sweep, in one process and on Dask (~5 min)"
+    )
+    return ap.parse_args(argv)
+
+
 if __name__ == "__main__":
+    args = parse_args()
     sys.path.insert(0, str(REPO / "benchmarks"))
     import kernels  # each family's kernel against its numpy floor (benchmarks/kernels.py; --load there for PyNEC)
 
     from snrgain.allocator import tune
 
     tune()  # as the command line does
-    if "--nec" in sys.argv[1:]:
+    if args.nec:
         nec_ratios()
-    elif "--site" in sys.argv[1:]:
+    elif args.site:
         realistic_site()
         nec_ratios()
         kernels.report(load=False)
-    elif "--bands" in sys.argv[1:]:
+    elif args.bands:
         bands_benchmark()
-    elif "--sweep" in sys.argv[1:]:
+    elif args.sweep:
         sweep_benchmarks(memory=False)
     else:
         cold_start()

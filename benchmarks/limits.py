@@ -1,4 +1,4 @@
-"""A scenario at the documented limits (README, "Scenario files"): 64 candidates, 64 targets, 64 local sources, all
+"""A scenario at the documented limits (README, "Scenario format"): 64 candidates, 64 targets, 64 local sources, all
 12 months x 24 hours, nside 128.  Writes it and, with --run, times `snrgain rank` on it (wall time and peak memory,
 from the kernel's accounting of the child process).
 

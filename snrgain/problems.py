@@ -223,23 +223,6 @@ def _path(steps, data, prefix: str) -> str:
     return ".".join(parts)
 
 
-def _near_key(key: str) -> str | None:
-    """The key of any of the project's input tables closest to a misspelt ``key`` ("lenght" -> "length"), or None
-    (difflib's ratio at least 0.8: one letter swapped or missing in a word of five or more)."""
-    import difflib
-
-    from snrgain.fields import StrictModel
-
-    names, todo = set(), [StrictModel]
-    while todo:
-        cls = todo.pop()
-        todo.extend(cls.__subclasses__())
-        names.update(getattr(cls, "model_fields", {}))
-    names.discard(key)
-    got = difflib.get_close_matches(key, sorted(names), n=1, cutoff=0.8)
-    return got[0] if got else None
-
-
 def not_finite(value) -> str | None:
     """What is wrong with a number TOML reads as ``nan`` or ``inf``, said the same for every field ("NaN (not a
     number) is not allowed"; the caller adds what is allowed and the value); None for any other value."""
@@ -248,16 +231,16 @@ def not_finite(value) -> str | None:
     return "NaN (not a number) is not allowed" if math.isnan(value) else "an infinite number is not allowed"
 
 
-def _message(err: dict) -> str:
+def _message(err: dict, title: str | None = None) -> str:
     typ = err.get("type", "")
     ctx = err.get("ctx", {}) or {}
     got = f"; got {toml_repr(err['input'])}" if "input" in err else ""
     if typ == "union_kinds":
         return f"expected {' or '.join(err['kinds']) or 'another kind of value'}{got}"
     if typ == "extra_forbidden":
-        loc = err.get("loc") or ()
-        near = _near_key(str(loc[-1])) if loc else None
-        return f"unknown key (did you mean {near!r}?)" if near else "unknown key (check its spelling)"
+        from snrgain.unknown_keys import unknown_key_message
+
+        return unknown_key_message(title, tuple(err.get("loc") or ()))
     if typ == "missing":
         return "required key is missing"
     if typ in ("value_error", "assertion_error"):
@@ -292,7 +275,7 @@ def pydantic_problems(exc, prefix: str = "", data=None) -> list[tuple[str, str]]
     kept = sorted(_select(errs, 0, notes), key=lambda e: e.order)
     out = []
     for e in kept:
-        msg = _message(e.err)
+        msg = _message(e.err, getattr(exc, "title", None))
         for note in notes.get(e.order, []):
             head, sep, tail = msg.partition("; got ")
             msg = f"{head} ({note}){sep}{tail}"

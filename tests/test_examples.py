@@ -1,5 +1,7 @@
 """The examples run as a user would run them."""
 
+import json
+import re
 import subprocess
 import sys
 
@@ -15,6 +17,38 @@ def test_python_api_example(tmp_path):
     )
     assert res.returncode == 0, res.stderr
     assert "SNR gain over" in res.stdout and "front-to-back" in res.stdout
+    # Each candidate's figure per target is the ranking's statistic, as rank prints it (it printed a mean over
+    # every month and hour, NaN for a target not listened for at all of them).
+    assert "nan" not in res.stdout.lower()
+    printed = {
+        (m["antenna"].strip(), t): float(g)
+        for m in re.finditer(r"^  (?P<antenna>.+?) +SNR gain over .*?: (?P<rest>.*)$", res.stdout, re.M)
+        for t, g in re.findall(r"(?:, )?(.+?) ([-+]\d+\.\d) dB", m["rest"])
+    }
+    rank = subprocess.run(
+        [
+            sys.executable,
+            "-m",
+            "snrgain.cli.main",
+            "rank",
+            str(REPO / "scenarios" / "marrow-fen.toml"),
+            "--format",
+            "json",
+        ],
+        capture_output=True,
+        text=True,
+        timeout=300,
+        cwd=REPO,
+    )
+    assert rank.returncode == 0, rank.stderr
+    ranked = {
+        (row["name"], t["name"]): row["snr_gain_db"]["median"]
+        for t in json.loads(rank.stdout)["targets"]
+        for row in t["ranking"]
+    }
+    assert set(printed) == set(ranked)
+    for key, g in printed.items():
+        assert abs(g - ranked[key]) <= 0.05, key
     for name in ("azimuth.png", "length-sweep.png"):
         png = tmp_path / name
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and png.stat().st_size > 10_000

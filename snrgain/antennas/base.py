@@ -62,6 +62,9 @@ class Antenna(ABC):
     """Its setting is chosen under the scenario's own noise sky (a stage of the pipeline returns it set)."""
     sky_order: ClassVar[int] = 0
     """Order in which antennas are set under the sky: a composite after the parts it holds."""
+    polarised: bool = True
+    """Its partial gains (vertical, horizontal) are known, so a placed source's field, which has a polarisation, can
+    be read through it (a pattern table of total gain only has none)."""
     resonant_tx: ClassVar[bool] = False
     """As the reference, a resonant transmitting element that re-radiates what it receives: receiving antennas
     keep ``[site] tx_clearance`` from it (the transmitting vertical)."""

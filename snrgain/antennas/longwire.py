@@ -115,7 +115,8 @@ class WireParams(WireSize, AntennaParams):
     velocity_factor: float | None = Field(default=None, gt=0.0, le=1.0)
     attenuation: Attenuation | None = None
     """Measured attenuation [dB/100 m]."""
-    z0: float | None = Field(default=None, gt=0.0, le=2000.0)
+    z0: quantity("resistance", gt=0.0, le=2000.0) | None = None
+    """Measured characteristic impedance [ohm]: "500 ohm" or a bare number of ohms."""
     ground: GroundField | None = None
     line_model: Literal["exact", "closed-form"] = "exact"
     """How the wire's line is solved: the full-wave modal equation (snrgain.physics.modal; for the BOG with its

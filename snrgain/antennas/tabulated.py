@@ -143,6 +143,7 @@ class Tabulated(Antenna):
         cols = read_pattern_csv(self.path)
         az_u, el_u, ia, ie = _grid(self.path, cols)
         self.has_polarization = "gain_v_dbi" in cols and "gain_h_dbi" in cols
+        self.polarised = self.has_polarization  # a placed source is refused with a table of total gain only
         self._grids = {}
         fields = ["gain_v_dbi", "gain_h_dbi"] if self.has_polarization else ["gain_dbi"]
         self._axes = (el_u, np.append(az_u, az_u[0] + 360.0))

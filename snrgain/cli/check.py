@@ -13,11 +13,14 @@ from snrgain.cli.options import handle_errors, p372_dir_option, scenario_argumen
 @p372_dir_option
 @handle_errors
 def check(scenario, p372_dir):
-    """Validate SCENARIO: every key, unit, range and antenna; run nothing.
+    """Validate SCENARIO: every key, unit, range and antenna; then the cheap geometry checks rank makes.
 
-    Prints a short summary on success; lists every problem (file, field,
-    value, what is allowed) and exits with code 2 otherwise.  A scenario of
-    several bands ([[band]]) is checked band by band.
+    It builds no noise sky and ranks nothing.  Prints a short summary on success, with
+    the geometry warnings rank would give (lot, keep-outs, crossings, the TX
+    vertical's clearance); lists every problem (file, field, value, what is
+    allowed) and exits with code 2 otherwise.  A scenario of several bands
+    ([[band]]) is checked band by band.  SCENARIO may be - (standard input;
+    relative paths then start from the current folder).
     """
     from snrgain.cli.options import band_names
     from snrgain.scenario import load

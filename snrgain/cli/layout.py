@@ -20,7 +20,7 @@ from snrgain.cli.options import (
 
 
 @click.command("layout")
-@click.argument("scenario", type=click.Path(exists=True, dir_okay=False, path_type=str))
+@click.argument("scenario", type=click.Path(path_type=str))
 @click.option("--keep", type=click.IntRange(1, 10), default=3, show_default=True, help="How many layouts to list.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option(

@@ -18,6 +18,13 @@ from snrgain.cli.options import (
 )
 from snrgain.constants import MAN_MADE_CHOICES
 
+NO_DATA_TEXT = (
+    "the atmospheric row needs ITU-R P.372's coefficient files (COEFF01W.txt ... COEFF12W.txt, published by ITU-R "
+    "Study Group 3 with its P.372 software); name their folder with --p372-dir or the environment variable "
+    "SNRGAIN_P372_DIR"
+)
+"""What ``snrgain noise`` says where no P.372 data folder is named."""
+
 
 @click.command("noise")
 @click.option("--lat", "lat", type=FiniteRange(-90, 90), required=True, help="Site latitude [deg, north positive].")
@@ -56,7 +63,9 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
     Levels are Fa, dB above kT0b, on P.372's reference antenna (a short
     vertical over perfect ground), with the P.372 Section 8 total and its
     decile deviations; then where atmospheric noise arrives from at --hour.
-    The P.372 data folder comes from --p372-dir, else $SNRGAIN_P372_DIR.
+    The P.372 data folder comes from --p372-dir, else $SNRGAIN_P372_DIR;
+    where neither names one, the man-made and galactic rows are shown alone
+    and a line says what the atmospheric row needs.
     """
     from snrgain.constants import check_frequency_hz
     from snrgain.scenario.p372dir import check_p372_dir, p372_dir_named
@@ -70,14 +79,26 @@ def noise(lat, lon, month, frequency, environment, galactic, hour, fmt, output, 
         raise ValueError(f"--frequency: {exc}") from None
     chosen = p372_dir_named(p372_dir)
     data_dir = None if chosen is None else check_p372_dir(chosen, [month])
+    if chosen is None and environment == "none" and not galactic:
+        raise ValueError(f"--environment none with --no-galactic leaves nothing to show: {NO_DATA_TEXT}")
     with progress(None, "noise: 24 hours and the storms' directions"):
         data = noise_over_day(
-            lat, lon, month=month, freq_hz=f, environment=environment, galactic=galactic, data_dir=data_dir, hour=hour
+            lat,
+            lon,
+            month=month,
+            freq_hz=f,
+            environment=environment,
+            galactic=galactic,
+            data_dir=data_dir,
+            hour=hour,
+            atmospheric=chosen is not None,
         )
     from snrgain.decide.decisions import man_made_extrapolated
     from snrgain.outputs.messages import notice_text
 
     data["warnings"] = [notice_text(n) for n in man_made_extrapolated(f, environment != "none")]
+    if chosen is None:
+        data["warnings"].append(f"{NO_DATA_TEXT}; shown: the man-made and galactic rows, their total without it")
     for w in data["warnings"]:
         click.echo(f"warning: {w}", err=True)
     if output is not None:
@@ -105,7 +126,8 @@ def _print_table(data):
     names = list(data["components"])
     for n in names:
         t.add_column(n, justify="right")
-    t.add_column("total (P.372 s.8)", justify="right", style="bold")
+    total = "total (P.372 s.8)" if "atmospheric" in names else "total, no atmospheric"
+    t.add_column(total, justify="right", style="bold")
     t.add_column("sum of medians", justify="right")
 
     def cell(c, i):
@@ -130,6 +152,8 @@ def _print_table(data):
         style="dim",
     )
     d = data["directions"]
+    if d is None:
+        return
     s = Table(
         title=f"Atmospheric noise arrival at {d['utc_hour']:g} UTC (storm model): share of power by bearing",
         title_justify="left",

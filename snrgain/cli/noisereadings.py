@@ -8,7 +8,7 @@ from snrgain.cli.options import check_output, emit_json, handle_errors, overwrit
 
 
 @click.command("noise-readings")
-@click.argument("scenario", type=click.Path(dir_okay=False, path_type=str), required=False)
+@click.argument("scenario", type=click.Path(path_type=str), required=False)
 @click.argument("readings", type=click.Path(dir_okay=False, path_type=str), required=False)
 @click.option("--example", is_flag=True, help="Print an example readings file and exit.")
 @click.option(

@@ -48,7 +48,7 @@ class FiniteRange(click.FloatRange):
         return super().convert(x, param, ctx)
 
 
-scenario_argument = click.argument("scenario", type=click.Path(dir_okay=False, path_type=Path))
+scenario_argument = click.argument("scenario", type=click.Path(path_type=Path))  # a folder: read_limited says so
 overwrite_option = click.option("--overwrite", is_flag=True, help="Replace an existing output file.")
 allow_long_option = click.option(
     "--allow-long",

@@ -19,7 +19,7 @@ from snrgain.cli.options import (
 
 
 @click.command("verify")
-@click.argument("scenario", type=click.Path(dir_okay=False, path_type=str), required=False)
+@click.argument("scenario", type=click.Path(path_type=str), required=False)
 @click.option("--a", "antenna_a", metavar="NAME", default=None, help="The scenario's antenna that log A was heard on.")
 @click.option("--b", "antenna_b", metavar="NAME", default=None, help="The scenario's antenna that log B was heard on.")
 @click.option("--log-a", type=click.Path(dir_okay=False, path_type=str), default=None, help="Decodes on antenna A.")

@@ -32,6 +32,13 @@ class WireFamily(click.Choice):
     "wire in grass, or 'on soil').",
 )
 @click.option("--depth", default=None, help="Bury a bog: its axis below the surface with unit, e.g. '10 cm'.")
+@click.option("--insulation-thickness", default=None, help="A bog's insulation thickness with unit (default 0.8 mm).")
+@click.option(
+    "--insulation-permittivity",
+    type=FiniteRange(1, 20),
+    default=None,
+    help="A bog's insulation relative permittivity (default 3; PVC 3-4 at these frequencies).",
+)
 @click.option("--gauge", type=click.IntRange(-3, 40), default=None, help="Wire gauge, AWG (default 14).")
 @click.option("--diameter", default=None, help="Wire diameter with unit instead of --gauge, e.g. '1.6 mm'.")
 @click.option("--ground", default="moist loam", show_default=True, help="Named ground (see README) or 'perfect'.")
@@ -84,6 +91,8 @@ def wire(
     length,
     height,
     depth,
+    insulation_thickness,
+    insulation_permittivity,
     gauge,
     diameter,
     ground,
@@ -125,6 +134,8 @@ def wire(
         permittivity=permittivity,
         coax=int(coax),
         depth=depth,
+        insulation_thickness=insulation_thickness,
+        insulation_permittivity=insulation_permittivity,
     )
     if "termination" in spec:
         spec["auto_for"] = best_for

@@ -75,7 +75,10 @@ def from_bearing(
 ) -> TargetDirections:
     """A target at one bearing, uniform over an elevation range [rad]."""
     if elevation_hi_rad < elevation_lo_rad:
-        raise ValueError(f"target {name!r}: elevation range is reversed")
+        raise ValueError(
+            f"target {name!r}: elevation range [{np.degrees(elevation_lo_rad):g}, {np.degrees(elevation_hi_rad):g}] "
+            "deg is reversed; give [low, high]"
+        )
     el = _samples(elevation_lo_rad, elevation_hi_rad)
     az = np.full_like(el, np.mod(bearing_rad, 2 * np.pi))
     return TargetDirections(name, az, el, np.full(el.size, 1.0 / el.size), float(np.mod(bearing_rad, 2 * np.pi)))

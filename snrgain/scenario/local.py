@@ -156,6 +156,30 @@ def local_sources_clear(local: list[LocalSource], antennas, wheres, site: SiteSe
     return out
 
 
+def placed_sources_readable(local: list[LocalSource], antennas, wheres) -> list[tuple[str, str]]:
+    """A placed source's field has a polarisation, read through an antenna's partial gains: an antenna that has only
+    a total gain (a pattern table without gain_v_dbi and gain_h_dbi) cannot hear it (one problem per antenna)."""
+    placed = [(i, s) for i, s in enumerate(local) if s.bearing is None]
+    if not placed:
+        return []
+    i, src = placed[0]
+    out = []
+    for ant, where in zip(antennas, wheres):
+        if ant.polarised:
+            continue
+        file = getattr(ant.params, "file", None)  # a pattern table's (the one kind with a total gain only)
+        out.append(
+            (
+                where if file is None else f"{where}.file",
+                f"{'its pattern' if file is None else f'the table {str(file)!r}'} gives total gain only (gain_dbi), "
+                f'and noise.local {i + 1} ("{src.name}") is placed (a position, not a bearing): a placed source\'s '
+                "field is read through the vertical and horizontal gains; add gain_v_dbi and gain_h_dbi columns to "
+                "the table, or give the source by its bearing",
+            )
+        )
+    return out
+
+
 def reading_antenna(src, file_reference) -> str | None:
     """The name of the antenna a source's level was read on: its ``read_on`` ("reference": the file's), by default
     the file's reference; None for a source given as fa."""
@@ -195,6 +219,7 @@ def check_local_sources(model: ScenarioModel, built: Built, file_reference=None)
     """Placed local sources stand clear of every antenna; then (if they do) levels read on the reference (or the
     antenna ``read_on`` names; by default the file's reference) can be read there."""
     problems = local_sources_clear(model.noise.local, built.antennas, built.wheres, model.site)
+    problems = problems or placed_sources_readable(model.noise.local, built.antennas, built.wheres)
     if not problems:
         problems = local_levels_readable(
             model.noise.local,

@@ -49,6 +49,16 @@ class Target(StrictModel):
             raise ValueError(f"elevation is a range [low, high] in degrees, e.g. [5, 25]; got {toml_repr(v)}")
         return v
 
+    @field_validator("elevation")
+    @classmethod
+    def _low_first(cls, v):
+        if v is not None and v[1] < v[0]:
+            hi, lo = (f"{np.degrees(x):.6g}" for x in v)
+            raise ValueError(
+                f"the range [{hi}, {lo}] deg is reversed (high end first); write [low, high]: [{lo}, {hi}]"
+            )
+        return v
+
     @model_validator(mode="after")
     def _one_way(self):
         by_bearing = self.bearing is not None
@@ -59,8 +69,6 @@ class Target(StrictModel):
             raise ValueError("a target place needs both latitude and longitude")
         if by_bearing and self.elevation is None:
             raise ValueError("a target by bearing needs elevation = [low, high] in degrees")
-        if self.elevation is not None and self.elevation[1] < self.elevation[0]:
-            raise ValueError("elevation range is reversed; write [low, high]")
         if self.elevation is not None and self.elevation[1] - self.elevation[0] < MIN_BAND_RAD * (1 - 1e-9):
             raise ValueError(
                 f"elevation range {[round(float(np.degrees(x)), 3) for x in self.elevation]} deg has no "

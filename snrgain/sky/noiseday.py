@@ -33,16 +33,18 @@ def noise_over_day(
     data_dir=None,
     hour: float = 4.0,
     nside: int = 32,
+    atmospheric: bool = True,
 ) -> dict:
     """Components per UTC hour 0..23 and the atmospheric direction distribution at ``hour``.
 
-    Returns a JSON-ready dict (units in the keys).
+    ``atmospheric=False`` leaves P.372's atmospheric noise out (it needs the coefficient files): the man-made and
+    galactic components alone, their total, and ``directions`` None.  Returns a JSON-ready dict (units in the keys).
     """
     from noisemodels.sphere import upper_hemisphere
 
     settings = noisemod.NoiseSettings(
         man_made=None if environment == "none" else noisemod.ManMadeNoise(environment),
-        atmospheric=noisemod.AtmosphericNoise(model="p372", arrival="storms"),
+        atmospheric=noisemod.AtmosphericNoise(model="p372", arrival="storms") if atmospheric else None,
         galactic=noisemod.GalacticNoise() if galactic else None,
         p372_dir=data_dir,
     )
@@ -57,7 +59,7 @@ def noise_over_day(
         for i, (name, kind) in enumerate(zip(skies.names, skies.kinds))
     }
     total = {"fa_db": skies.total_fa_db[0], "du_db": skies.total_du_db[0], "dl_db": skies.total_dl_db[0]}
-    comp = noisemod.atmospheric_component(settings, place, grid, month=month, utc_hour=hour)
+    comp = noisemod.atmospheric_component(settings, place, grid, month=month, utc_hour=hour)  # None without it
     return {
         "latitude_deg": lat_deg,
         "longitude_deg": lon_deg,
@@ -67,7 +69,7 @@ def noise_over_day(
         "components": comps,
         "total": total,
         "median_power_sum_fa_db": skies.median_power_sum_fa_db[0],
-        "directions": direction_distribution(comp, utc_hour=hour),
+        "directions": None if comp is None else direction_distribution(comp, utc_hour=hour),
     }
 
 

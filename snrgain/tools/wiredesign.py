@@ -372,13 +372,16 @@ def wire_spec(
     permittivity=None,
     coax: int = 75,
     depth=None,
+    insulation_thickness=None,
+    insulation_permittivity: float | None = None,
 ) -> dict:
     """An antenna spec for a long wire from design options (units as in scenario files).
 
     Each key goes only to the families whose table takes it (their parameter model says which): the far-end
     keys, ``depth`` (a wire on the ground may be buried), ``termination``.  ``height`` defaults to the family's
     own default where it has one (a BOG's axis 2 cm above the soil; "on soil" rests it on the soil), else to
-    :data:`DEFAULT_HEIGHT`; ``conductivity`` with ``permittivity`` replaces a named ``ground``.
+    :data:`DEFAULT_HEIGHT`; ``conductivity`` with ``permittivity`` replaces a named ``ground``; the insulation's
+    thickness and relative permittivity go to a family that takes them (the BOG's).
     """
     if family not in wire_families():
         raise ValueError(f"family must be one of {', '.join(wire_families())}; got {family!r}")
@@ -399,6 +402,14 @@ def wire_spec(
         spec["termination"] = termination
     elif termination != "auto":
         raise ValueError(f"termination: the {family} family sets its own far end; leave the termination out")
+    for key, value in (
+        ("insulation_thickness", insulation_thickness),
+        ("insulation_permittivity", insulation_permittivity),
+    ):
+        if value is not None:
+            if key not in takes:
+                raise ValueError(f"{key}: only a wire on the ground (bog) is insulated in the model, not a {family}")
+            spec[key] = value
     if gauge is not None:
         spec["gauge"] = gauge
     if diameter is not None:
