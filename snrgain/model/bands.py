@@ -40,7 +40,7 @@ class BandResults:
                 names = bands_of.setdefault(w, [])
                 if name not in names:
                     names.append(name)
-        unit = self.bands[0][1].site.get("length_unit", "m") if self.bands else "m"
+        unit = self.bands[0][1].site.get("length_unit", "m") if self.notices else "m"
         return [f"[{', '.join(names)}] {w}" for w, names in bands_of.items()] + [
             notice_text(n, unit=unit) for n in self.notices
         ]

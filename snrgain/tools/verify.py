@@ -535,8 +535,9 @@ def verify(
         sc = scenario
     else:
         sc = load(scenario, p372_dir=p372_dir)
-        data, _, _ = read_source(Path(scenario))
-        a_name, b_name = (c.name for c in antennas_compared(data, a_name, b_name))  # a state: as rank names it
+        if predict_too:  # the names pick the antennas predicted (without a prediction they only label the logs)
+            data, _, _ = read_source(Path(scenario))
+            a_name, b_name = (c.name for c in antennas_compared(data, a_name, b_name))  # a state: as rank names it
     problems = logs.Problems()
     if spots is not None:
         try:
