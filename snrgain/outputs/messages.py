@@ -369,6 +369,12 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "source's strength is only as good as that pattern and the source's bearing and elevation; a reading on "
             "a vertical does not depend on the bearing (name it with read_on), or give fa"
         )
+    if n.code == "reference-at-origin":
+        return (
+            f"{n.antenna} (the reference) has no position, so it stands at the plan's origin, [0, 0], which is "
+            f"{v['where']}: what a placed source gives it, its distance to the wires and what it does to the antennas "
+            "near it rest on that place; give [reference] position"
+        )
     if n.code == "looks-like-latlon":
         e, north = v["point"]
         lat, lon = v["site_deg"]
