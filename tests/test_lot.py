@@ -400,3 +400,31 @@ def test_a_narrow_elevation_range_keeps_its_decimal(elevation, said):
     console = Console(width=200, record=True, file=io.StringIO())
     console.print(ranking_table(snrgain.evaluate(text)))
     assert said in console.export_text()
+
+
+@pytest.mark.parametrize(
+    "edit, where",
+    [
+        (None, None),
+        (("[[-20, -20], [180, -20], [180, 180], [-20, 180]]", "[[10, 10], [180, 10], [180, 180], [10, 180]]"), "off"),
+        (("[[60, 60], [90, 60], [90, 80], [60, 80]]", "[[-10, -10], [10, -10], [10, 10], [-10, 10]]"), "house"),
+    ],
+)
+def test_a_reference_without_a_position_at_an_origin_no_antenna_could_take_is_said(edit, where):
+    # A reference with no position stands at the plan's origin, silently; on a plan drawn from a corner of the lot
+    # that put the transmitting vertical off the lot or in the house.  Said there; a plan whose origin is the vertical
+    # (the lot around it, nothing on it) is left alone.
+    from snrgain.decide.lot import site_notices
+    from snrgain.outputs.messages import notice_text
+
+    text = BASE.format(extra_site="", candidates="")
+    if edit is not None:
+        text = text.replace(*edit)
+    said = [n for n in site_notices(load(text)) if n.code == "reference-at-origin"]
+    if where is None:
+        assert not said
+        return
+    (n,) = said
+    expected = {"off": "off the lot", "house": "in the keep-out area 'house'"}[where]
+    assert n.values["where"] == expected
+    assert f"stands at the plan's origin, [0, 0], which is {expected}" in notice_text(n)

@@ -313,15 +313,16 @@ def test_a_unit_over_a_wire_whose_resistor_is_set_under_the_sky():
 
 def test_why_the_plan_passes_a_targets_best_is_said_on_the_plans_own_scale():
     # A reviewer's contest site: "Europe: the best (+1.0 dB) is not in the plan because building it adds less than
-    # 0.1 dB" read as a verdict on the antenna, while it was the plan's power-ratio worth, which Japan's +12 dB
-    # outweighed; and a target served by an antenna as good as its best to the printed 0.1 dB got the same note,
-    # "outweigh its 0.0 dB".  The note now says how the plan weighs targets and what the target loses, and a gain
+    # 0.1 dB" read as a verdict on the antenna, while it was the plan's power-ratio worth; and a target served by an antenna as good as its best to the printed 0.1 dB got the same note,
+    # "outweigh its 0.0 dB"; and "larger gains toward other targets" was said where the other target's gain was not
+    # larger.  The note now says what building it would add to the plan and the target's weight in it, and a gain
     # equal to the best's as printed is said as that.
     from snrgain.outputs.messages import plan_not_best_text
 
     little = {"best": "bev", "best_db": 1.04, "served_by": "tx", "served_db": 0.0, "reason": "adds_little"}
+    little |= {"adds_db": 0.03, "weight": 0.5}
     text = plan_not_best_text("Europe", little)
-    assert "the plan weighs targets as power ratios" in text and "outweigh its 1.0 dB here" in text
+    assert "adds less than 0.1 dB to the plan as a whole (0.03 dB; Europe weighs 50 % of it, the targets taken as power ratios)" in text
     assert text.endswith("Build it too if Europe counts on its own.")
     tie = {**little, "best_db": 3.52, "served_db": 3.50}
     assert plan_not_best_text("Europe", tie) == (
@@ -329,3 +330,20 @@ def test_why_the_plan_passes_a_targets_best_is_said_on_the_plans_own_scale():
     )
     full = {**little, "reason": "max_antennas"}
     assert "([plan] max_antennas); tx serves it (+0.0 dB)." in plan_not_best_text("Europe", full)
+
+
+def test_what_an_unbuilt_best_would_add_is_the_plans_own_number():
+    # The note's figure is the plan's own: building the best too raises the worth by exactly adds_db (0.04 dB for a
+    # 0.2 dB edge on a target of weight 1/2, the other target at 3.5 dB, where "larger gains toward other targets"
+    # was said of a gain that was not larger).
+    import numpy as np
+
+    from snrgain.decide.plan import station_plan, worth
+
+    g = np.array([[0.0, 0.0], [3.5, 3.5], [3.68, 0.0]])
+    w = np.array([0.5, 0.5])
+    p = station_plan(["ref", "loop", "bev"], g, w)
+    why = p.not_best[0]
+    assert why["reason"] == "adds_little" and why["weight"] == 0.5
+    assert why["adds_db"] == pytest.approx(worth(g, w, [1, 2]) - worth(g, w, [1]))
+    assert 0 < why["adds_db"] < 0.1

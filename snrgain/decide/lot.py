@@ -74,6 +74,28 @@ def _latlon_like(points, site) -> tuple[float, float] | None:
     return None
 
 
+def reference_at_origin_notices(sc) -> list[Notice]:
+    """``reference-at-origin`` (where: "off the lot" or "in the keep-out area 'house'") where the reference has no
+    position, so stands at the plan's origin, and that place is one no antenna could stand: off the lot or in a
+    keep-out area (a plan drawn from a corner of the lot or the house, not from the vertical).  A plan whose origin
+    is the vertical (every place written from it) is left alone; one with a candidate on it is an input error
+    already (snrgain.scenario.antennas)."""
+    from shapely.geometry import Point
+
+    ref = sc.reference
+    if ref.params.position is not None or getattr(ref, "positions", None) is not None and len(ref.positions) > 1:
+        return []
+    origin = Point(0.0, 0.0)
+    site = sc.site
+    where = None
+    if site.lot_m is not None and not polygon(site.lot_m, "site.lot").covers(origin):
+        where = "off the lot"
+    for name, pts in getattr(site, "keep_out", ()):
+        if where is None and polygon(pts, f"site.keep_out {name!r}").covers(origin):
+            where = f"in the keep-out area {name!r}"
+    return [] if where is None else [Notice("reference-at-origin", ref.name, {"where": where})]
+
+
 def latlon_like_notices(sc) -> list[Notice]:
     """Plan points (the lot, keep-outs, antennas' positions and elements) that look like a latitude and longitude
     written as metres (code ``looks-like-latlon``: where, point, site_deg)."""
@@ -242,6 +264,7 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
                 if area.covers(Point(*src.position_m)):
                     out.append(Notice("source-in-keep-out", None, {"source": src.name, "area": name}))
     out.extend(latlon_like_notices(sc))
+    out.extend(reference_at_origin_notices(sc))
     return out
 
 

@@ -78,9 +78,10 @@ class Plan:
     method: str = "exact"
     max_antennas: int | None = None
     not_best: dict[int, dict] = field(default_factory=dict)
-    """Target index -> {best, best_db, served_by, served_db, reason} where the target's best antenna is not the
-    one the plan serves it with; reason "max_antennas" (the plan holds no more) or "adds_little" (it adds less
-    than MIN_ADDED_DB to the plan's worth)."""
+    """Target index -> {best, best_db, served_by, served_db, reason, adds_db, weight} where the target's best antenna
+    is not the one the plan serves it with; reason "max_antennas" (the plan holds no more) or "adds_little" (it adds
+    less than MIN_ADDED_DB to the plan's worth); adds_db what building it too would add to the plan's worth, weight
+    the target's share of it."""
     states: dict[str, list[str]] = field(default_factory=dict)
     """A switched antenna of the plan (by its group name, as in ``antennas``) -> its states that serve a target, in
     the order written; the antenna is built once and switched between them."""
@@ -205,6 +206,8 @@ def station_plan(
                 "served_by": names[served],
                 "served_db": float(gains[served, t]),
                 "reason": "adds_little" if u in dropped or u not in chosen and len(chosen) < limit else "max_antennas",
+                "adds_db": float(value([*order, u]) - total),
+                "weight": float(weights[t]),
             }
     states = {
         unit_names[u]: [names[i] for i in units[u] if i in serving] for u in order if groups[units[u][0]] is not None

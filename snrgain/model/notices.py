@@ -39,6 +39,8 @@ class Notice:
     bands whose best resistors differ by band; snrgain.decide.bandplan.resistor_notices),
     ``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target, velocity_factor: a wire past
     the maximum-effective-length rule that a shorter one beats on RDF; snrgain.decide.decisions),
+    ``reference-at-origin`` (where: a reference without a position whose place, the plan's origin, is off the lot,
+    in a keep-out area or on a candidate; snrgain.decide.lot),
     ``termination-off-target`` (target, target_bearing_deg, bearing_deg, off_deg, below_db: a resistor to be chosen
     for SNR whose nearest target lies outside the antenna's main lobe, left at best RDF; snrgain.model.steering),
     ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and

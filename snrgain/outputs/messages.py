@@ -369,6 +369,12 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "source's strength is only as good as that pattern and the source's bearing and elevation; a reading on "
             "a vertical does not depend on the bearing (name it with read_on), or give fa"
         )
+    if n.code == "reference-at-origin":
+        return (
+            f"{n.antenna} (the reference) has no position, so it stands at the plan's origin, [0, 0], which is "
+            f"{v['where']}: what a placed source gives it, its distance to the wires and what it does to the antennas "
+            "near it rest on that place; give [reference] position"
+        )
     if n.code == "looks-like-latlon":
         e, north = v["point"]
         lat, lon = v["site_deg"]
@@ -437,10 +443,13 @@ def plan_not_best_text(target: str, why: dict) -> str:
     if why["reason"] == "max_antennas":
         reason, then = "the plan holds no more antennas ([plan] max_antennas)", ""
     else:
+        adds = why.get("adds_db")
+        share = why.get("weight")
         reason = (
-            f"building it adds less than {MIN_ADDED_DB:g} dB to the plan as a whole (the plan weighs targets as power "
-            f"ratios, so larger gains toward other targets outweigh its {why['best_db'] - why['served_db']:.1f} dB "
-            "here)"
+            f"building it adds less than {MIN_ADDED_DB:g} dB to the plan as a whole"
+            + (f" ({adds:.2f} dB" if adds is not None else " (")
+            + (f"; {target} weighs {share * 100:.0f} % of it" if share is not None else "")
+            + ", the targets taken as power ratios)"
         )
         then = f" Build it too if {target} counts on its own."
     return (
