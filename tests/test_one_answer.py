@@ -313,16 +313,18 @@ def test_a_unit_over_a_wire_whose_resistor_is_set_under_the_sky():
 
 def test_why_the_plan_passes_a_targets_best_is_said_on_the_plans_own_scale():
     # A reviewer's contest site: "Europe: the best (+1.0 dB) is not in the plan because building it adds less than
-    # 0.1 dB" read as a verdict on the antenna, while it was the plan's power-ratio worth; and a target served by an antenna as good as its best to the printed 0.1 dB got the same note,
-    # "outweigh its 0.0 dB"; and "larger gains toward other targets" was said where the other target's gain was not
-    # larger.  The note now says what building it would add to the plan and the target's weight in it, and a gain
-    # equal to the best's as printed is said as that.
+    # 0.1 dB" read as a verdict on the antenna, while it was the plan's power-ratio worth; and a target served by an
+    # antenna as good as its best to the printed 0.1 dB got the same note, "outweigh its 0.0 dB"; and "larger gains
+    # toward other targets" was said where the other target's gain was not larger.  The note now says what building
+    # it would add to the plan and the target's weight in it, and a gain equal to the best's as printed is said as
+    # that.
     from snrgain.outputs.messages import plan_not_best_text
 
     little = {"best": "bev", "best_db": 1.04, "served_by": "tx", "served_db": 0.0, "reason": "adds_little"}
     little |= {"adds_db": 0.03, "weight": 0.5}
     text = plan_not_best_text("Europe", little)
-    assert "adds less than 0.1 dB to the plan as a whole (0.03 dB; Europe weighs 50 % of it, the targets taken as power ratios)" in text
+    said = "adds less than 0.1 dB to the plan as a whole (0.03 dB; Europe weighs 50 % of it, the targets taken as "
+    assert said + "power ratios)" in text
     assert text.endswith("Build it too if Europe counts on its own.")
     tie = {**little, "best_db": 3.52, "served_db": 3.50}
     assert plan_not_best_text("Europe", tie) == (
