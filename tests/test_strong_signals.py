@@ -103,6 +103,7 @@ def test_beverage_next_to_a_medium_wave_station_is_warned_with_level_and_filter(
         (0.6e6, 1.55e6, "trap", "broadcast band"),  # below one, in the same broadcast band
         (1.7e6, 1.83e6, "trap", "close"),  # 7 % away: no high-pass turns over between them
         (1.9e6, 1.83e6, "trap", "close"),
+        (1.83e6 + 15e3, 1.83e6, "none", ""),  # 0.8 %: a trap deep enough is as wide as the gap
     ],
 )
 def test_the_filter_kind_follows_where_the_station_lies(station_hz, listen_hz, kind, why):
@@ -133,6 +134,9 @@ def test_overload_filters_by_hand():
         ("1.83 MHz", "1.008 MHz", "a high-pass filter turning over between 1.008 MHz and the 1.83 MHz listened to"),
         ("0.6 MHz", "0.88 MHz", "a trap (notch) tuned to 0.88 MHz for Kestrel medium-wave relay (it shares the "),
         ("1.83 MHz", "3.5 MHz", "a low-pass filter turning over between the 1.83 MHz listened to and 3.5 MHz"),
+        # a reviewer's listener at 1.0 MHz beside the station at 1.002 MHz was told "a trap tuned to 1.002 MHz ...
+        # taking at least 43 dB off": a notch that deep 2 kHz off takes the wanted signal with it
+        ("1.0 MHz", "1.002 MHz", "no filter takes out Kestrel medium-wave relay at 1.002 MHz: 2 kHz from the"),
     ],
 )
 def test_the_overload_warning_names_the_filter_that_fits(band, station, said):
@@ -143,6 +147,8 @@ def test_the_overload_warning_names_the_filter_that_fits(band, station, said):
     warned = [w for w in r.warnings if "nearby transmitters" in w]
     assert warned and all(said in w for w in warned), warned
     assert not any("high-pass" in w for w in warned if "high-pass" not in said)
+    if said.startswith("no filter"):
+        assert all("an attenuator of at least" in w and "cures it" not in w and "trap (notch)" not in w for w in warned)
 
 
 def test_a_warning_said_alike_in_several_bands_is_printed_once_naming_them():
@@ -168,7 +174,7 @@ def test_a_whip_overloaded_alike_in_three_medium_wave_bands_is_warned_once():
     base = base.replace('[band]\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n', "")
     bands = "".join(
         f'[[band]]\nname = "{n}"\nfrequency = "{f}"\nbandwidth = "6 kHz"\n\n'
-        for n, f in (("MW low", "0.6 MHz"), ("MW mid", "1.0 MHz"), ("160m", "1.83 MHz"))
+        for n, f in (("MW low", "0.6 MHz"), ("MW mid", "0.9 MHz"), ("160m", "1.83 MHz"))
     )
     r = snrgain.evaluate_bands(bands + base + "[[strong_signal]]" + station)
     whip = [w for w in r.warnings if "short vertical: nearby transmitters" in w]

@@ -106,7 +106,8 @@ def with_strong_signals(sc, results):
         headroom = limits.p1db_dbm - total_dbm
         if headroom < st.COMPRESSION_MARGIN_DB:
             loudest = max(at_stage, key=lambda n: at_stage[n][1])
-            filters = st.overload_filters(at_stage, listen_hz, limits.p1db_dbm - st.COMPRESSION_MARGIN_DB)
+            safe = limits.p1db_dbm - st.COMPRESSION_MARGIN_DB
+            filters = st.overload_filters(at_stage, listen_hz, safe, sc.bandwidth_hz)
             notices.append(
                 Notice(
                     "strong-signal-overload",

@@ -44,6 +44,14 @@ def _mhz(hz: float) -> str:
 def _one_filter_text(f: dict, listen_hz: float) -> str:
     """One filter of a strong-signal-overload notice (snrgain.physics.strong.overload_filters) in words."""
     at = ", ".join(f"{name} at {_mhz(hz)}" for name, hz in zip(f["stations"], f["frequencies_hz"]))
+    if f["kind"] == "none":
+        apart = abs(f["frequencies_hz"][0] - listen_hz) / 1e3
+        return (
+            f"no filter takes out {f['stations'][0]} at {_mhz(f['frequencies_hz'][0])}: {apart:g} kHz from the "
+            "frequency listened to, a trap deep enough would take the wanted signal with it; null it with the "
+            f"antenna's pattern, or put an attenuator of at least {f['rejection_db']:.0f} dB before the first "
+            "amplifier (it costs SNR only where the receiver's own noise comes near the antenna's)"
+        )
     if f["kind"] == "trap":
         return f"a trap (notch) tuned to {_mhz(f['frequencies_hz'][0])} for {f['stations'][0]} ({_TRAP_WHY[f['why']]})"
     if f["kind"] == "high-pass":
@@ -55,11 +63,15 @@ def _one_filter_text(f: dict, listen_hz: float) -> str:
 
 def _overload_filters_text(v: dict) -> str:
     """The filters that cure a strong-signal-overload notice: their kind follows where each station lies."""
-    filters = v["filters"]
-    n = sum(len(f["stations"]) for f in filters)
-    each = "the station" if n == 1 else f"each of those {n} stations"
-    said = " and ".join(_one_filter_text(f, v["listen_hz"]) for f in filters)
-    return f"; {said}, taking at least {v['filter_db']:.0f} dB off {each} before the first amplifier, cures it"
+    usable = [f for f in v["filters"] if f["kind"] != "none"]
+    parts = []
+    if usable:
+        n = sum(len(f["stations"]) for f in usable)
+        each = "the station" if n == 1 else f"each of those {n} stations"
+        said = " and ".join(_one_filter_text(f, v["listen_hz"]) for f in usable)
+        parts.append(f"{said}, taking at least {v['filter_db']:.0f} dB off {each} before the first amplifier")
+    parts += [_one_filter_text(f, v["listen_hz"]) for f in v["filters"] if f["kind"] == "none"]
+    return "; " + "; ".join(parts) + (", cures it" if len(parts) == 1 and usable else "")
 
 
 _DETUNE_CAUTION = (

@@ -187,12 +187,23 @@ class Filter:
     why: str = ""
 
 
-def filter_kind(station_hz: float, listen_hz: float) -> tuple[str, str]:
-    """(kind, why) of the filter that takes a station at ``station_hz`` out ahead of a receiver at ``listen_hz``.
+NO_FILTER_FRACTION = 0.01
+"""A station within this fraction of the frequency listened to (or within the listening bandwidth) is one no filter
+takes out without the wanted signal: a trap deep enough there is as wide as the separation (snrgain's own choice:
+an LC trap's unloaded Q of about 100 at medium wave and the low bands, from memory)."""
+
+
+def filter_kind(station_hz: float, listen_hz: float, bandwidth_hz: float = 0.0) -> tuple[str, str]:
+    """(kind, why) of the filter that takes a station at ``station_hz`` out ahead of a receiver at ``listen_hz``
+    listening ``bandwidth_hz`` wide; ("none", "") where none can (:data:`NO_FILTER_FRACTION`).
 
     >>> filter_kind(1.008e6, 1.83e6), filter_kind(0.88e6, 0.6e6), filter_kind(3.6e6, 1.83e6)
     (('high-pass', ''), ('trap', 'broadcast band'), ('low-pass', ''))
+    >>> filter_kind(1.002e6, 1.0e6, 6e3)
+    ('none', '')
     """
+    if abs(station_hz - listen_hz) <= max(NO_FILTER_FRACTION * listen_hz, bandwidth_hz):
+        return "none", ""
     lo, hi = MW_BROADCAST_HZ
     if lo <= station_hz <= hi and lo <= listen_hz <= hi:
         return "trap", "broadcast band"
@@ -201,7 +212,9 @@ def filter_kind(station_hz: float, listen_hz: float) -> tuple[str, str]:
     return ("high-pass" if station_hz < listen_hz else "low-pass"), ""
 
 
-def overload_filters(levels_dbm: dict[str, tuple[float, float]], listen_hz: float, safe_dbm: float) -> list[Filter]:
+def overload_filters(
+    levels_dbm: dict[str, tuple[float, float]], listen_hz: float, safe_dbm: float, bandwidth_hz: float = 0.0
+) -> list[Filter]:
     """The filters that bring the stations' total power (name -> (freq [Hz], level at the stage's input [dBm]))
     down to ``safe_dbm``: the loudest stations until the rest stay under UNFILTERED_SHARE of it, all given the
     rejection that brings the total to ``safe_dbm``; one high-pass for those below, one low-pass for those above, a
@@ -217,8 +230,8 @@ def overload_filters(levels_dbm: dict[str, tuple[float, float]], listen_hz: floa
     out: list[Filter] = []
     for n in sorted(order[:k], key=lambda n: levels_dbm[n][0]):  # by frequency
         f = float(levels_dbm[n][0])
-        kind, why = filter_kind(f, listen_hz)
-        same = next((i for i, x in enumerate(out) if kind != "trap" and x.kind == kind), None)
+        kind, why = filter_kind(f, listen_hz, bandwidth_hz)
+        same = next((i for i, x in enumerate(out) if kind not in ("trap", "none") and x.kind == kind), None)
         if same is None:
             out.append(Filter(kind, (n,), (f,), rejection, why))
         else:  # one high-pass (or low-pass) takes all the stations on its side
@@ -235,6 +248,7 @@ __all__ = [
     "GRAZING_RAD",
     "IN_BAND_SPAN_HZ",
     "MW_BROADCAST_HZ",
+    "NO_FILTER_FRACTION",
     "PREAMP_DEFAULTS",
     "Product",
     "RECEIVER_DEFAULTS",
