@@ -13,6 +13,7 @@ import numpy as np
 
 from snrgain.antennas import FAMILIES
 from snrgain.decide.build import nearest_standard_ohm
+from snrgain.decide.decisions import trades_front_to_back
 from snrgain.decide.plan import Plan, station_plan
 from snrgain.model.notices import Notice
 
@@ -59,11 +60,14 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
 
 
 def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
-    """``resistor-per-band`` (bands: [{band, termination_ohm, criterion, target, loss_db}], common_ohm,
-    common_standard_ohm, worst_db, worst_band) for each antenna of the plan that serves targets on several bands
-    with resistors more than RESISTOR_SPREAD apart: the plan builds it once, so the one resistor that loses least at
-    worst over those bands (each band's criterion read off its curve, interpolated in log R within the range every
-    band searched) is given with what it costs on each, beside each band's own."""
+    """``resistor-per-band`` (bands: [{band, termination_ohm, criterion, target, at_search_bound, loss_db,
+    front_to_back_db}], common_ohm, common_standard_ohm, worst_db, worst_band, safer: None or {ohm, standard_ohm,
+    words, bands: [{band, loss_db, front_to_back_db}]}) for each antenna of the plan that serves targets on several
+    bands with resistors more than RESISTOR_SPREAD apart: the plan builds it once, so the one resistor that loses
+    least at worst over those bands (each band's criterion read off its curve, interpolated in log R within the range
+    every band searched) is given with what it costs on each, beside each band's own; where it gives up the rear
+    null for little on a band against |Z0| less the far ground (snrgain.decide.decisions.trades_front_to_back, the
+    fragile resistor's test), that one is offered as the safer build with what it costs (``safer``)."""
     served: dict[str, set[str]] = {}
     for c, services in plan.by_target.items():
         for sv in services:
@@ -90,19 +94,24 @@ def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
             continue
         trial = np.geomspace(lo, hi, 200)
 
-        def losses(rs, answers=answers):
-            return np.array(
-                [
-                    max(ans["curve"]["figure_db"])
-                    - np.interp(np.log(rs), np.log(ans["curve"]["ohm"]), ans["curve"]["figure_db"])
-                    for _, ans in answers
-                ]
-            )
+        def at(rs, key, answers=answers):
+            """Each band's curve ``key`` at the resistors ``rs`` (bands, resistors), interpolated in log R."""
+            rs = np.atleast_1d(np.asarray(rs, dtype=float))
+            return np.array([np.interp(np.log(rs), np.log(a["curve"]["ohm"]), a["curve"][key]) for _, a in answers])
 
-        each = losses(trial)
+        tops = np.array([max(a["curve"]["figure_db"]) for _, a in answers])[:, None]
+        each = tops - at(trial, "figure_db")
         k = int(np.argmin(np.max(each, axis=0)))
         common = float(trial[k])
         worst = int(np.argmax(each[:, k]))
+        fb_common = at(common, "front_to_back_db")[:, 0]
+        matched = float(np.clip(np.median([a["matched_ohm"] for _, a in answers]), lo, hi))
+        loss_matched = (tops - at(matched, "figure_db"))[:, 0]
+        fb_matched = at(matched, "front_to_back_db")[:, 0]
+        fragile = any(
+            trades_front_to_back(loss_matched[i] - each[i, k], fb_matched[i] - fb_common[i])
+            for i in range(len(answers))
+        )
         out.append(
             Notice(
                 "resistor-per-band",
@@ -114,7 +123,9 @@ def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
                             "termination_ohm": float(ans["termination_ohm"]),
                             "criterion": ans["criterion"],
                             "target": ans.get("target"),
+                            "at_search_bound": ans.get("at_search_bound"),
                             "loss_db": float(each[i, k]),
+                            "front_to_back_db": float(fb_common[i]),
                         }
                         for i, (band, ans) in enumerate(answers)
                     ],
@@ -122,6 +133,17 @@ def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
                     "common_standard_ohm": nearest_standard_ohm(common),
                     "worst_db": float(each[worst, k]),
                     "worst_band": answers[worst][0],
+                    "safer": None
+                    if not fragile
+                    else {
+                        "ohm": matched,
+                        "standard_ohm": nearest_standard_ohm(matched),
+                        "words": answers[0][1].get("matched_words", "|Z0|"),
+                        "bands": [
+                            {"band": band, "loss_db": float(loss_matched[i]), "front_to_back_db": float(fb_matched[i])}
+                            for i, (band, _) in enumerate(answers)
+                        ],
+                    },
                 },
             )
         )

@@ -346,9 +346,10 @@ SHORTER_BETTER_DB = 1.5
 
 
 def wire_too_long_notices(sc: Scenario) -> list[Notice]:
-    """``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target) for each travelling-wave
-    wire longer than LONG_WIRE_RULE_FACTOR times the maximum-effective-length rule toward its nearest target whose RDF
-    toward it, with its resistor as chosen, is beaten by SHORTER_BETTER_DB or more at a shorter length (twelve
+    """``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target, velocity_factor, resistor:
+    "rdf" or "given") for each travelling-wave wire longer than LONG_WIRE_RULE_FACTOR times the maximum-effective-length
+    rule toward its nearest target whose RDF toward it is beaten by SHORTER_BETTER_DB or more at a shorter length,
+    each length with its own resistor of best RDF (a resistor the user gave kept as given) (twelve
     lengths from 0.3 of its own, on a coarse sky; the two figures said are worked on the scenario's own): a BOG,
     whose wave runs at a third of the speed of light, slips out of step with the arriving wave within a few tens of
     metres, and past that its RDF rises and falls with length."""
@@ -372,13 +373,23 @@ def wire_too_long_notices(sc: Scenario) -> list[Notice]:
         if not ant.length_m > LONG_WIRE_RULE_FACTOR * rule:
             continue
         coarse = upper_hemisphere(16) if coarse is None else coarse
+        given = getattr(ant.params, "termination", "auto") != "auto" and getattr(ant, "sky_termination", None) is None
+        if "termination" in type(ant.params).model_fields and not given:  # each length with its own best resistor
+
+            def trial(x, ant=ant):
+                return variant(ant, length=float(x), termination="auto", auto_for="rdf")
+        else:  # a resistor the user gave (or none) stays as given
+
+            def trial(x, ant=ant):
+                return variant(ant, length=float(x))
+
         lengths = np.geomspace(0.3 * ant.length_m, ant.length_m, 12)
-        rdf = [rdf_db(variant(ant, length=float(x)), sc.freq_hz, t, coarse) for x in lengths]
+        rdf = [rdf_db(trial(x), sc.freq_hz, t, coarse) for x in lengths]
         k = int(np.argmax(rdf))
         if rdf[k] - rdf[-1] < SHORTER_BETTER_DB:
             continue
         grid = upper_hemisphere(sc.nside)
-        own, best = (rdf_db(variant(ant, length=float(x)), sc.freq_hz, t, grid) for x in (ant.length_m, lengths[k]))
+        own, best = (rdf_db(trial(x), sc.freq_hz, t, grid) for x in (ant.length_m, lengths[k]))
         if best - own < SHORTER_BETTER_DB:
             continue
         out.append(
@@ -393,6 +404,7 @@ def wire_too_long_notices(sc: Scenario) -> list[Notice]:
                     "best_rdf_db": float(best),
                     "target": t.name,
                     "velocity_factor": vf,
+                    "resistor": "given" if given or "termination" not in type(ant.params).model_fields else "rdf",
                 },
             )
         )

@@ -92,10 +92,11 @@ def _ns_text(x: float) -> str:
     return f"{x:.2g}" if x < 10 else f"{x:.0f}"
 
 
-def _criterion_words(criterion: str, target: str | None) -> str:
-    if criterion == "snr":
-        return f"SNR gain toward {target}" if target else "SNR gain"
-    return {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "RDF (at |Z0|)"}.get(criterion, criterion)
+def criterion_words(criterion: str, target: str | None = None) -> str:
+    """A termination criterion in words, toward its target where it has one (the one wording for the notices and
+    the build lines)."""
+    words = {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "|Z0|", "snr": "SNR gain"}.get(criterion, criterion)
+    return f"{words} toward {target}" if target else words
 
 
 def notice_text(n: Notice, unit: str = "m") -> str:
@@ -136,27 +137,46 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     if n.code == "resistor-per-band":
         bands = v["bands"]
-        each = ", ".join(f"{b['termination_ohm']:.0f} ohm on {b['band']}" for b in bands)
+
+        def own(b):
+            end = {"low": " (the lowest searched)", "high": " (the highest searched)"}.get(b.get("at_search_bound"), "")
+            return f"{b['termination_ohm']:.0f} ohm{end} on {b['band']}"
+
         whys = {(b["criterion"], b["target"]) for b in bands}
         if len(whys) == 1:
             crit, target = next(iter(whys))
-            why = f" (each the best {_criterion_words(crit, target)} there)"
+            why = f" (each for the best {criterion_words(crit, target)} there)"
         else:
-            why = " (" + "; ".join(f"{b['band']}: {_criterion_words(b['criterion'], b['target'])}" for b in bands) + ")"
-        costs = " and ".join(f"{b['loss_db']:.1f} dB on {b['band']}" for b in bands)
+            why = " (" + "; ".join(f"{b['band']}: {criterion_words(b['criterion'], b['target'])}" for b in bands) + ")"
         served = " and ".join(b["band"] for b in bands)
-        return (
-            f"{n.antenna} serves {served} but its best resistor differs between them: {each}{why}. Built once, it "
-            f"takes one resistor: {v['common_ohm']:.0f} ohm (nearest E12 value {v['common_standard_ohm']:.0f} ohm) "
-            f"loses least at worst, {costs}; or switch the resistor per band (a relay at the far end) to keep each "
-            "band's own"
+        costs = " and ".join(
+            f"{b['loss_db']:.1f} dB on {b['band']} (front-to-back {b['front_to_back_db']:.0f} dB)" for b in bands
         )
+        text = (
+            f"{n.antenna} serves {served} but its best resistor differs between them: "
+            f"{', '.join(own(b) for b in bands)}{why}. Built once, it takes one resistor: {v['common_ohm']:.0f} ohm "
+            f"(nearest E12 value {v['common_standard_ohm']:.0f} ohm) loses least at worst, {costs}"
+        )
+        safer = v.get("safer")
+        if safer:
+            alt = " and ".join(
+                f"{b['loss_db']:.1f} dB on {b['band']} (front-to-back {b['front_to_back_db']:.0f} dB)"
+                for b in safer["bands"]
+            )
+            text += (
+                f"; but that gives up the rear null for little: {safer['words']}, {safer['ohm']:.0f} ohm (nearest E12 "
+                f"value {safer['standard_ohm']:.0f} ohm), loses {alt}, and is the safer build unless you trust the "
+                "noise as modelled"
+            )
+        return text + "; or switch the resistor per band (a relay at the far end) to keep each band's own"
     if n.code == "wire-too-long":
         return (
             f"{n.antenna}: at {length_text(v['length_m'], unit, 0)} it is {v['length_m'] / v['rule_m']:.1f} times the "
             f"maximum-effective-length rule ({length_text(v['rule_m'], unit, 0)} at velocity factor "
             f"{v['velocity_factor']:.2f}; common practice), and its RDF toward {v['target']} is {v['rdf_db']:.1f} dB "
-            f"where {length_text(v['best_length_m'], unit, 0)} of the same wire gives {v['best_rdf_db']:.1f} dB: past "
+            f"where {length_text(v['best_length_m'], unit, 0)} of the same wire gives {v['best_rdf_db']:.1f} dB"
+            + (" (each length with its own resistor of best RDF)" if v.get("resistor") == "rdf" else "")
+            + ": past "
             "the rule the wave on the wire slips out of step with the arriving wave and the RDF rises and falls with "
             "length; a shorter wire would do better ('snrgain wire' gives the whole length curve)"
         )

@@ -10,6 +10,7 @@ import numpy as np
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
 from snrgain.outputs.csvcells import csv_writer
+from snrgain.outputs.messages import criterion_words
 from snrgain.units import length_both_text, length_text, lengths_text, number_text, s_units, signed_text
 
 
@@ -473,11 +474,7 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
             bits.append(f"termination {b['termination_ohm']:.0f} ohm ({e12}{far})")
             ans = b.get("termination_answer")
             if ans:  # the one answer (wiredesign.termination_answer), as `snrgain wire` prints it
-                crit = {"rdf": "RDF", "front_to_back": "front-to-back", "z0": "|Z0|", "snr": "SNR gain"}[
-                    ans["criterion"]
-                ]
-                if ans.get("target"):
-                    crit += f" toward {ans['target']}"
+                crit = criterion_words(ans["criterion"], ans.get("target"))
                 bound = wiredesign.bound_text(ans, crit)
                 if bound is None:
                     best = f"best {crit} at {ans['termination_ohm']:.0f} ohm"

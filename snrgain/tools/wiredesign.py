@@ -193,9 +193,10 @@ class TerminationAnswer:
     """The range of resistors searched [ohm] (None for "z0", which is not searched)."""
     matched_words: str = "|Z0|"
     """What ``matched_ohm`` is, in words: the antenna's own (a wire's |Z0| less the far ground, a loop's |Z0|)."""
-    curve: tuple[tuple[float, ...], tuple[float, ...]] | None = None
-    """(resistors [ohm], the criterion at each [dB]): the resistors tried under the sky ("snr"), else the range
-    searched; what one resistor for several bands is weighed on (snrgain.decide.bandplan)."""
+    curve: tuple[tuple[float, ...], tuple[float, ...], tuple[float, ...]] | None = None
+    """(resistors [ohm], the criterion at each [dB], the front-to-back at each [dB], toward the bearing at the
+    antenna's auto elevation): the resistors tried under the sky ("snr"), else the range searched; what one resistor
+    for several bands is weighed on (snrgain.decide.bandplan)."""
 
     def to_dict(self) -> dict:
         return {
@@ -214,7 +215,13 @@ class TerminationAnswer:
             "at_search_bound": self.at_bound,
             "search_ohm": None if self.search_ohm is None else list(self.search_ohm),
             "matched_words": self.matched_words,
-            "curve": None if self.curve is None else {"ohm": list(self.curve[0]), "figure_db": list(self.curve[1])},
+            "curve": None
+            if self.curve is None
+            else {
+                "ohm": list(self.curve[0]),
+                "figure_db": list(self.curve[1]),
+                "front_to_back_db": list(self.curve[2]),
+            },
         }
 
 
@@ -261,13 +268,19 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         at_bound=None if searched is None else search_bound(best, searched),
         search_ohm=None if searched is None else (float(np.min(searched)), float(np.max(searched))),
         matched_words=getattr(antenna, "matched_words", "|Z0|"),
-        curve=_curve(antenna.auto_terminations_ohm, db),
+        curve=_curve(antenna, freq_hz, antenna.auto_terminations_ohm, [db(r) for r in antenna.auto_terminations_ohm]),
     )
 
 
-def _curve(values_ohm, db) -> tuple[tuple[float, ...], tuple[float, ...]]:
+def _curve(antenna, freq_hz: float, values_ohm, figure_db) -> tuple[tuple[float, ...], ...]:
+    """(resistors, the criterion, the front-to-back toward the bearing at the auto elevation) at ``values_ohm``."""
+    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
+
+    elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
+    bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
+    fb = termination_figure(antenna.termination_pattern(freq_hz), bearing, elevation, "front_to_back")
     rs = tuple(float(r) for r in values_ohm)
-    return rs, tuple(float(db(r)) for r in rs)
+    return rs, tuple(float(x) for x in figure_db), tuple(float(10 * np.log10(max(fb(r), 1e-30))) for r in rs)
 
 
 def bound_text(answer: dict, figure: str) -> str | None:
@@ -315,7 +328,7 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         at_bound=search_bound(best, sky["values_ohm"]),
         search_ohm=(float(min(sky["values_ohm"])), float(max(sky["values_ohm"]))),
         matched_words=getattr(antenna, "matched_words", "|Z0|"),
-        curve=(tuple(float(r) for r in sky["values_ohm"]), tuple(float(x) for x in sky["figure_db"])),
+        curve=_curve(antenna, freq_hz, sky["values_ohm"], sky["figure_db"]),
     )
 
 
