@@ -260,7 +260,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     if n.code == "termination-fragile":
         safer = f"{v['safer_ohm']:.0f} ohm"
-        how = f'(termination = "{safer}")' if v["safer"] == "matched" else '(auto_for = "rdf")'
+        how = f'(termination = "{safer}")' if v["safer"] == "matched" else f'(auto_for = "{v["safer"]}")'
         return (
             f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats {v['safer_words']} "
             f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of {v['front_to_back_db']:.1f} "
