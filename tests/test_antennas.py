@@ -310,3 +310,15 @@ def test_array_gain_is_its_complex_response_squared(element):
     np.testing.assert_allclose(gv, np.abs(ev) ** 2, rtol=1e-10, atol=tiny)
     np.testing.assert_allclose(gh, np.abs(eh) ** 2, rtol=1e-10, atol=tiny)
     assert np.all(gv[:, 0] == 0) and np.max(gv) > 0
+
+
+def test_a_tall_verticals_message_names_top_loading_only_where_there_is_some():
+    # a reviewer read "plus 0 ft (0 m) of top loading" on a plain vertical
+    from snrgain.antennas import from_si
+
+    with pytest.raises(ValueError) as plain:
+        from_si("vertical", height=60.0).check_frequency(7.1e6)
+    assert str(plain.value).startswith("height: 60 m is 1.42 wavelengths") and "top loading" not in str(plain.value)
+    with pytest.raises(ValueError) as loaded:
+        from_si("vertical", height=30.0, top_loading=20.0).check_frequency(7.1e6)
+    assert "height: 30 m, plus 20 m of top loading, is 1.18 wavelengths" in str(loaded.value)

@@ -215,7 +215,9 @@ class Vertical(Antenna):
         h_wl = (self.height_m + self.top_m) * freq_hz / C_M_PER_S
         if h_wl > MAX_HEIGHT_WAVELENGTHS:
             raise ValueError(
-                f"height: {length_said(self.height_m)}, plus {length_said(self.top_m)} of top loading, is {h_wl:.2f} "
+                f"height: {length_said(self.height_m)}"
+                + (f", plus {length_said(self.top_m)} of top loading," if self.top_m > 0 else "")
+                + f" is {h_wl:.2f} "
                 f"wavelengths at {freq_hz / 1e6:g} MHz; the vertical model holds up to {MAX_HEIGHT_WAVELENGTHS} "
                 "wavelengths"
             )

@@ -206,10 +206,12 @@ def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=F
             if write_to is not None:
                 raise ValueError(f"--write: {exc}; no copy written") from None
             return {"not_fitted": str(exc)}, ["", f"the site learns: not fitted: {exc}"]
-        data, label, base_dir = read_source(Path(scenario))
-        moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, ground=f.ground, p372_dir=p372_dir)
+        moved = []
+        if f.identifiable:  # an undetermined level moves nothing: its "after" is no prediction
+            data, label, base_dir = read_source(Path(scenario))
+            moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, ground=f.ground, p372_dir=p372_dir)
     out = {**f.as_dict(), "moves": moved}
-    lines = learn.fit_lines(f) + learn.move_lines(moved)
+    lines = learn.fit_lines(f) + (learn.move_lines(moved) if f.identifiable else [])
     if write_to is not None:
         if not f.identifiable:
             raise ValueError(f"--write: {f.notes[0]}; no copy written")

@@ -182,10 +182,10 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     if n.code == "termination-off-target":
         return (
-            f"{n.antenna}: no target lies in its main lobe (the nearest, {v['target']} at "
-            f"{v['target_bearing_deg']:.0f} deg, is {v['off_deg']:.0f} deg off its bearing {v['bearing_deg']:.0f} deg "
-            f"and {v['below_db']:.0f} dB under its peak), so its resistor is the one of best RDF toward its bearing, "
-            "not one tuned for a side lobe toward that target"
+            f"{n.antenna}: its nearest target, {v['target']} at {v['target_bearing_deg']:.0f} deg, "
+            f"{v['off_deg']:.0f} deg off its bearing {v['bearing_deg']:.0f} deg, lies {v['below_db']:.0f} dB under "
+            "the peak of its pattern there, so its resistor is the one of best RDF toward its bearing, not one "
+            "tuned toward a target it hardly hears"
         )
     if n.code == "far-ground-too-high":
         resistor = v["z0_ohm"] - v["far_ground_ohm"]

@@ -293,11 +293,12 @@ LAND_GROUNDS = (
 """The named ground classes a site on land may be (snrgain.physics.ground.GROUND_TYPES less the waters)."""
 
 
-GROUND_CHI2 = 2.71
+GROUND_CHI2 = 6.0
 """How much less chi-square another ground class must leave than the site's own (each at its best offset) before the
-fit writes it: the 90 % point of chi-square with one degree of freedom, the likelihood-ratio test of S. S. Wilks,
-"The large-sample distribution of the likelihood ratio for testing composite hypotheses", Ann. Math. Statist. 9
-(1938), taken for the one choice the class adds (an approximation for a choice among a few classes)."""
+fit writes it: the likelihood-ratio test of S. S. Wilks, "The large-sample distribution of the likelihood ratio for
+testing composite hypotheses", Ann. Math. Statist. 9 (1938), at 90 % for one degree of freedom, with the chance
+shared among the seven other classes it is chosen from (Bonferroni: chi-square's 1 - 0.1 / 7 point, 5.99; an
+approximation for a choice among a few classes)."""
 
 
 def ground_kept(site: str | None, best: str, costs: dict[str, float]) -> str | None:
@@ -311,8 +312,8 @@ def ground_kept(site: str | None, best: str, costs: dict[str, float]) -> str | N
         return None
     return (
         f"{best} fits the pairs only a little better than the site's {site} (chi-square {gain:.1f} less, under "
-        f"{GROUND_CHI2:g}, the 90 % point with one degree of freedom): the pairs do not tell the ground classes "
-        f"apart, so the site's {site} is kept"
+        f"{GROUND_CHI2:g}, the 90 % point with one degree of freedom shared among the classes tried): the pairs do "
+        f"not tell the ground classes apart, so the site's {site} is kept"
     )
 
 
@@ -413,10 +414,19 @@ def fit_offset(
         tol = float("inf")  # no level is fitted where the level does not explain the pairs: nothing to write
         notes.insert(0, unexplained)
     if best <= one["edges"][0] + 0.1 or best >= one["edges"][1] - 0.1:
+        tol = float("inf")  # an edge of the search is no level: nothing to write
         notes.append(
-            f"the best offset lies at the edge of the search ({one['edges'][0]:+g} to {one['edges'][1]:+g} dB): the "
+            f"the best offset{' over ' + best_ground if grounds else ''} lies at the edge of the search "
+            f"({one['edges'][0]:+g} to {one['edges'][1]:+g} dB): the "
             "pairs point outside what an offset can explain; check the antennas' names and the scenario's other noise"
         )
+    if grounds and not np.isfinite(tol) and best_ground != ground0 and ground0 in tried:
+        notes.append(
+            f"the site's {ground0} is kept ({best_ground} fitted best): where the level is not determined the pairs "
+            "choose no ground class either"
+        )
+        best_ground, one = ground0, tried[ground0]
+        best, slope, p1 = one["best"], one["slope"], one["after"]
     from snrgain.scenario.noise import ManMade
     from snrgain.units import parse_quantity
 
@@ -424,7 +434,7 @@ def fit_offset(
         freq = float(parse_quantity(data["band"]["frequency"], "frequency"))
     except (KeyError, TypeError, ValueError):
         freq = None  # a scenario of several bands: the level is not said at one frequency
-    if freq is not None:
+    if freq is not None and np.isfinite(tol):  # an undetermined level is not said against P.372's curves
         beyond = beyond_p372_note(ManMade.model_validate(man_made_table(data)).environment, freq, best)
         if beyond:
             notes.append(beyond)
@@ -535,15 +545,20 @@ def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> di
 
 
 def fit_lines(f: OffsetFit) -> list[str]:
-    tol = f"+-{f.tolerance_db:.1f} dB (90 %)" if f.identifiable else "not determined"
+    if f.identifiable:
+        said = f"offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, +-{f.tolerance_db:.1f} dB (90 %)"
+    else:
+        said = (
+            f"offset {f.before_db:+.1f} dB kept: not determined (the pairs' best, {f.offset_db:+.1f} dB, is no level)"
+        )
     out = [
         "",
         "the site learns (noise.man_made.offset, fitted to the pairs per target and hour):",
-        f"  offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, {tol}; rms misfit {f.rms_before_db:.1f} -> "
-        f"{f.rms_after_db:.1f} dB over {len(f.groups)} group(s), {f.runs} pipeline runs",
+        f"  {said}; rms misfit {f.rms_before_db:.1f} -> {f.rms_after_db:.1f} dB over {len(f.groups)} group(s), "
+        f"{f.runs} pipeline runs",
     ]
     if f.ground is not None and f.ground == f.ground_before:
-        out.append(f"  ground {f.ground} kept (no other class fits the pairs clearly better)")
+        out.append(f"  ground {f.ground} kept (the notes say why)")
     elif f.ground is not None:
         out.append(f"  ground {f.ground_before} -> {f.ground} (the class whose best offset fits best)")
     wt = max((len(g["target"]) for g in f.groups), default=0)
