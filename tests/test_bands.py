@@ -224,3 +224,29 @@ def test_one_wire_built_for_two_bands_is_given_one_resistor_that_holds_on_both(t
     for b in v["bands"]:
         got = fixed.band(b["band"]).antenna("Beverage Europe").snr_gain_median_db[0]
         assert got == pytest.approx(best[b["band"]] - b["loss_db"], abs=0.15)
+
+
+def test_one_resistor_that_costs_no_band_anything_is_simply_built():
+    # a hostile-input run: "loses least at worst, 0.0 dB on 160 m and 0.0 dB on 80 m ...; or switch the resistor per
+    # band (a relay at the far end)": a relay for nothing
+    from snrgain.model.notices import Notice
+    from snrgain.outputs.messages import notice_text
+
+    def band(name, ohm, loss):
+        return {"band": name, "termination_ohm": ohm, "criterion": "snr", "target": "Japan", "loss_db": loss}
+
+    values = {
+        "bands": [band("160 m", 300.0, 0.01) | {"front_to_back_db": 20.0}, band("80 m", 420.0, 0.02)],
+        "common_ohm": 345.0,
+        "common_standard_ohm": 330.0,
+        "worst_db": 0.02,
+        "worst_band": "80 m",
+        "safer": None,
+    }
+    values["bands"][1]["front_to_back_db"] = 18.0
+    text = notice_text(Notice("resistor-per-band", "BOG Japan", values))
+    assert text.endswith("(front-to-back 18 dB): build that one") and "relay" not in text
+    values["worst_db"] = values["bands"][1]["loss_db"] = 0.4
+    assert "switch the resistor per band (a relay at the far end)" in notice_text(
+        Notice("resistor-per-band", "BOG Japan", values)
+    )

@@ -168,6 +168,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
                 f"value {safer['standard_ohm']:.0f} ohm), loses {alt}, and is the safer build unless you trust the "
                 "noise as modelled"
             )
+        elif v["worst_db"] < 0.05:  # no band gives up anything to speak of: nothing to switch
+            return text + ": build that one"
         return text + "; or switch the resistor per band (a relay at the far end) to keep each band's own"
     if n.code == "wire-too-long":
         return (
