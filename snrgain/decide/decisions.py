@@ -189,6 +189,15 @@ def _part_indices(sc: Scenario, ant) -> tuple[int, ...]:
     return tuple(k for k, a in enumerate(sc.antennas) if any(a is e for e in ant.elements) and k > 0)
 
 
+def _alternative_indices(sc: Scenario) -> list[tuple[int, int]]:
+    """The pairs of candidates (indices among the scenario's antennas) that stand in one place, of which the station
+    plan builds one at most (snrgain.decide.lot.alternatives)."""
+    from snrgain.decide.lot import alternatives
+
+    index = {a.name: k for k, a in enumerate(sc.antennas)}
+    return [(index[a], index[b]) for a, b in alternatives(sc)]
+
+
 def reference_setting_notices(sc: Scenario) -> list[Notice]:
     """``reference-not-set-under-noise``: a reference that would be set under the site's noise as a candidate (an
     array steered for SNR, a phasing unit set automatically, a resistor chosen for SNR) is set for RDF toward its
@@ -421,6 +430,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         target_times=[(list(tt.months), list(tt.utc_hours)) for tt in sc.target_times],
         groups=[a.group for a in antennas],
         parts=[_part_indices(sc, ant) for ant in sc.antennas],
+        alternatives=_alternative_indices(sc),
     )
     return Results(
         source=sc.source,

@@ -440,6 +440,8 @@ def plan_not_best_text(target: str, why: dict) -> str:
             f"{target}: {why['served_by']} serves it ({signed_text(why['served_db'])} dB), within 0.05 dB of the best, "
             f"{why['best']}, which the plan does not build for it."
         )
+    if why["reason"] == "alternative":
+        return _alternative_text(target, why)
     if why["reason"] == "max_antennas":
         reason, then = "the plan holds no more antennas ([plan] max_antennas)", ""
     else:
@@ -455,4 +457,32 @@ def plan_not_best_text(target: str, why: dict) -> str:
     return (
         f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because {reason}; "
         f"{why['served_by']} serves it ({signed_text(why['served_db'])} dB).{then}"
+    )
+
+
+_PLACE_SHARED = {
+    True: "the two stand in one place, and only one can be built there",
+    False: "they stand where it stands, and it cannot be built beside them",
+}
+
+
+def _alternative_text(target: str, why: dict) -> str:
+    """A target's best left out of the plan because another antenna of the plan stands in its place (reason
+    "alternative": ``instead``, swap_db), in words."""
+    instead = why["instead"]
+    those = " and ".join(instead)
+    one = len(instead) == 1
+    swap = why.get("swap_db")
+    if swap is None:
+        change = ""
+    elif swap < -0.005:
+        change = f"; with {why['best']} there instead the plan would be worth {-swap:.2f} dB less as a whole"
+    elif swap > 0.005:
+        change = f"; with {why['best']} there instead the plan would be worth {swap:.2f} dB more as a whole"
+    else:
+        change = f"; with {why['best']} there instead the plan would be worth as much as a whole"
+    return (
+        f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because the plan "
+        f"builds {those} in its place ({_PLACE_SHARED[one]}){change}; {why['served_by']} serves it "
+        f"({signed_text(why['served_db'])} dB)."
     )
