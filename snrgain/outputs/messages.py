@@ -117,11 +117,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "row in a ranking over another antenna; rank it as a candidate to see it set for the SNR"
         )
     if n.code == "lobe-away-from-bearing":
-        return (
-            f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
-            f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
-            "element's signal by its phase) or its delays (positive: the signal comes later)"
-        )
+        return _lobe_away_text(n)
     if n.code == "resistor-per-band":
         bands = v["bands"]
         each = ", ".join(f"{b['termination_ohm']:.0f} ohm on {b['band']}" for b in bands)
@@ -391,6 +387,43 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     detail = ", ".join(f"{k} = {val}" for k, val in sorted(v.items()))
     return f"{n.antenna + ': ' if n.antenna else ''}{n.code}" + (f" ({detail})" if detail else "")
+
+
+def _lobe_away_text(n: Notice) -> str:
+    """The lobe-away-from-bearing notice in words: a given phasing's sign to check; an array (or a phasing unit) set
+    for SNR under the site's noise turned away to null what it hears; an automatic steering for another figure that
+    leaves the lobe there."""
+    v = n.values
+    head = (
+        f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
+        f"bearing {v['bearing_deg']:.0f} deg"
+    )
+    auto_for = v.get("auto_for") if v.get("steering") == "auto" else None
+    beam = f"the build sheet's 'toward {v['bearing_deg']:.0f} deg' is its bearing, not its beam"
+    if auto_for == "snr":
+        sources = v.get("sources") or []
+        heard = (
+            f"e.g. the local source{'s' if len(sources) > 1 else ''} {_either(repr(s) for s in sources)}"
+            if sources
+            else "e.g. the storms' directions"
+        )
+        if v.get("composite"):
+            how, keep = "its setting for SNR under the site's noise (setting = 'auto')", "give its setting instead"
+        else:
+            how, keep = "its steering for SNR under the site's noise (auto_for = 'snr')", "write auto_for = 'rdf'"
+        return (
+            f"{head}: {how} turned it there to null what it hears ({heard}); {beam}. To keep the lobe on its "
+            f"bearing, {keep}; or accept the null, and the lobe at {v['lobe_deg']:.0f} deg with it"
+        )
+    if auto_for is not None:
+        return (
+            f"{head} under its automatic steering (auto_for = '{auto_for}': no phases of yours to check): its "
+            f"elements' places or a structure's re-radiation leave it no stronger lobe nearer its bearing; {beam}"
+        )
+    return (
+        f"{head}; check the sign of its phases (phase_sense = 'lag' delays an element's signal by its phase) or its "
+        "delays (positive: the signal comes later)"
+    )
 
 
 def best_effort_text(v: dict) -> str:
