@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.notices import Notice
 from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
-from snrgain.units import length_text, per_m, signed_text
+from snrgain.units import length_text, number_text, per_m, signed_text, significant_text
 
 
 def _upper_bound(v) -> str:
@@ -80,6 +80,17 @@ def _ns_text(x: float) -> str:
     return f"{x:.2g}" if x < 10 else f"{x:.0f}"
 
 
+def _db(x: float, decimals: int = 0) -> str:
+    """A figure in dB (front-to-back: often near 0) to ``decimals`` places, never "-0" (:func:`number_text`)."""
+    return number_text(x, f"{{:.{decimals}f}}")
+
+
+def choke_text(ohm: float) -> str:
+    """A choke's suggested impedance to two significant figures, as the build sheet and the warnings say it (a
+    choke's impedance is known to a few per cent at best): 45401 -> "about 45000 ohm", 5061 -> "about 5100 ohm"."""
+    return f"about {significant_text(float(f'{float(ohm):.2g}'), 2)} ohm"
+
+
 def _criterion_words(criterion: str, target: str | None) -> str:
     if criterion == "snr":
         return f"SNR gain toward {target}" if target else "SNR gain"
@@ -104,8 +115,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         lags = ", ".join(f"{x:g}" for x in v["best_lags_deg"])
         return (
             f"{n.antenna}: its given phasing gives an RDF of {v['rdf_db']:.1f} dB toward {v['bearing_deg']:.0f} deg "
-            f"(front-to-back {v['front_to_back_db']:.0f} dB); the same array phased for RDF there gives "
-            f"{v['rdf_best_db']:.1f} dB (front-to-back {v['front_to_back_best_db']:.0f} dB), with phase lags of "
+            f"(front-to-back {_db(v['front_to_back_db'])} dB); the same array phased for RDF there gives "
+            f"{v['rdf_best_db']:.1f} dB (front-to-back {_db(v['front_to_back_best_db'])} dB), with phase lags of "
             f"{lags} deg element by element: check the phasing (a close pair wants nearly 180 deg less its "
             "spacing in degrees, common practice), or write steering = 'auto'"
         )
@@ -204,9 +215,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"{n.antenna}: the transmitting vertical {length_text(v['distance_m'], unit, 0)} away, {st}, costs "
             f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
-            f"{v[f'{st}_front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward "
+            f"{_db(v[f'{st}_front_to_back_db'])} dB against {_db(v['front_to_back_alone_db'])} dB without it, forward "
             f"gain {signed_text(v[st + '_forward_gain_change_db'])} dB. {other.capitalize()}: RDF "
-            f"{signed_text(v[other + '_rdf_change_db'])} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
+            f"{signed_text(v[other + '_rdf_change_db'])} dB, front-to-back {_db(v[f'{other}_front_to_back_db'])} dB"
             + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
         )
     if n.code == "feed-line-ground-assumed":
@@ -227,8 +238,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         how = f'(termination = "{safer}")' if v["safer"] == "matched" else '(auto_for = "rdf")'
         return (
             f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats {v['safer_words']} "
-            f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of {v['front_to_back_db']:.1f} "
-            f"dB against {v['front_to_back_safer_db']:.1f} dB at {safer}: what it adds rests on the noise as modelled "
+            f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of "
+            f"{_db(v['front_to_back_db'], 1)} dB against {_db(v['front_to_back_safer_db'], 1)} dB at {safer}: what it "
+            "adds rests on the noise as modelled "
             "(its sources' bearings and levels, the storms' directions), the rear null it gives up does not; unless "
             f"you trust that model, {safer} is the safer build {how}"
         )
@@ -245,8 +257,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{_ns_text(v['longest_error_ns'] * 1e-9 * v['freq_hz'] * 360.0)} deg at the operating frequency), "
             f"its RDF toward {v['bearing_deg']:.0f} deg at {v['elevation_deg']:.0f} deg elevation, {v['rdf_db']:.1f} "
             f"dB, becomes {rdf[0]:.1f} to {rdf[2]:.1f} dB (median {rdf[1]:.1f}) and its "
-            f"front-to-back of {cap}{v['front_to_back_db']:.0f} dB becomes {fb[0]:.0f} to {fb[2]:.0f} dB (median "
-            f"{fb[1]:.0f}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure; said "
+            f"front-to-back of {cap}{_db(v['front_to_back_db'])} dB becomes {_db(fb[0])} to {_db(fb[2])} dB (median "
+            f"{_db(fb[1])}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure; said "
             f"where that build loses {tolerance.RDF_LOSS_DB:g} dB of RDF, or {tolerance.FRONT_TO_BACK_LOSS_DB:g} dB of "
             f"front-to-back down to under {tolerance.FRONT_TO_BACK_KEPT_DB:g} dB)."
         )
@@ -256,7 +268,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             text += (
                 f" Built with phase-reversing transformers giving elements their 180 deg (the lines then at most "
                 f"{rev['longest_delay_ns']:.0f} ns), one build in ten {keeps} RDF "
-                f"{rev['rdf_drawn_db'][0]:.1f} dB and front-to-back {rev['front_to_back_drawn_db'][0]:.0f} dB: the "
+                f"{rev['rdf_drawn_db'][0]:.1f} dB and front-to-back {_db(rev['front_to_back_drawn_db'][0])} dB: the "
                 "usual way to build it (common practice)."
             )
         return text + (
@@ -306,9 +318,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "source, another place, or quieting the source gains more than a sharper pattern"
         )
     if n.code == "feed-line-cost":
-        about = float(f"{v['choke_ohm']:.2g}")  # a choke's impedance is known to a few per cent at best
         choke = (
-            f"a common-mode choke of about {about:g} ohm at the antenna puts it {v['quiet_below_db']:g} dB "
+            f"a common-mode choke of {choke_text(v['choke_ohm'])} at the antenna puts it {v['quiet_below_db']:g} dB "
             "below the antenna's own pickup"
             if v["choke_ohm"] > 0
             else "it is already 20 dB below the antenna's own pickup at its worst hour"
@@ -323,7 +334,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"{n.antenna}: the structure {v['structure']!r} {length_text(v['distance_m'], unit, 0)} away costs "
             f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
-            f"{v['front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward gain "
+            f"{_db(v['front_to_back_db'])} dB against {_db(v['front_to_back_alone_db'])} dB without it, forward gain "
             f"{signed_text(v['forward_gain_change_db'])} dB: move the antenna, or break the structure's resonance "
             "(insulate its foot or change what loads it) where that is safe and its lightning protection allows"
         )
