@@ -136,6 +136,82 @@ def test_three_bands_with_switched_antennas_build_each_antenna_once():
     assert "two-wire Beverage: adds" in text and "serves 160 m, 80 m, 40 m" in text
 
 
+ONE_SPOT_TWO_BANDS = """
+[site]
+name = "one spot"
+latitude = 44.2
+longitude = -71.3
+lot = [[-30, -30], [30, -30], [30, 30], [-30, 30]]
+
+[[band]]
+name = "80 m"
+frequency = "3.55 MHz"
+
+[[band]]
+name = "40 m"
+frequency = "7.03 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[target]]
+name = "north-east"
+bearing = 45
+elevation = [10, 25]
+
+[[target]]
+name = "south-west"
+bearing = 225
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "10 m"
+position = [-25, -25]
+
+[[candidate]]
+name = "pair NE"
+family = "phased-verticals"
+positions = [[0, 0], [10, 10]]
+height = "4 m"
+bearing = 45
+
+[[candidate]]
+name = "pair SW"
+family = "phased-verticals"
+positions = [[0, 0], [10, 10]]
+height = "4 m"
+bearing = 225
+"""
+
+
+def test_the_plan_across_bands_builds_one_of_two_antennas_in_one_place():
+    # Two arrays on the same two spots, each the best toward one target on each band: the plan across the bands
+    # builds one of them (it built both, as each band's plan did before it was told they stand in one place).
+    from dataclasses import replace
+
+    from snrgain.decide.bandplan import plan_across_bands
+
+    br = evaluate_bands(ONE_SPOT_TWO_BANDS)
+    p = br.plan
+    assert p.alternatives == [("pair NE", "pair SW")]
+    assert len(p.antennas) == 1 and {why["reason"] for why in p.not_best.values()} == {"alternative"}
+    other = ({"pair NE", "pair SW"} - set(p.antennas)).pop()
+    assert {why["best"] for why in p.not_best.values()} == {other}
+    unplaced = [(band, replace(r, plan=replace(r.plan, alternatives=[]))) for band, r in br.bands]
+    assert sorted(plan_across_bands(unplaced)[0].antennas) == ["pair NE", "pair SW"]
+    assert (
+        f"the plan builds {p.antennas[0]} in its place"
+        in CliRunner().invoke(cli, ["rank", "-"], input=(ONE_SPOT_TWO_BANDS)).stdout
+    )
+
+
 TWO_BAND_BEVERAGE = """
 [site]
 name = "Hollin Bank (invented)"

@@ -1,5 +1,6 @@
 """The lot: placement warnings (shapely) and outlines that cannot be."""
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -428,3 +429,113 @@ def test_a_reference_without_a_position_at_an_origin_no_antenna_could_take_is_sa
     expected = {"off": "off the lot", "house": "in the keep-out area 'house'"}[where]
     assert n.values["where"] == expected
     assert f"stands at the plan's origin, [0, 0], which is {expected}" in notice_text(n)
+
+
+ONE_SPOT = """
+[site]
+name = "one spot"
+latitude = 44.2
+longitude = -71.3
+lot = [[-30, -30], [30, -30], [30, 30], [-30, 30]]
+
+[band]
+frequency = "3.55 MHz"
+
+[time]
+months = [1]
+utc_hours = [4]
+
+[uncertainty]
+ground = false
+noise_deciles = false
+local_sources = false
+
+[[target]]
+name = "north-east"
+bearing = 45
+elevation = [10, 25]
+
+[[target]]
+name = "south-west"
+bearing = 225
+elevation = [10, 25]
+
+[reference]
+family = "vertical"
+height = "10 m"
+position = [-25, -25]
+
+[[candidate]]
+name = "pair NE"
+family = "phased-verticals"
+positions = [[0, 0], [10, 10]]
+height = "5 m"
+bearing = 45
+
+[[candidate]]
+name = "pair SW"
+family = "phased-verticals"
+positions = [[0, 0], [10, 10]]
+height = "5 m"
+bearing = 225
+"""
+
+
+def test_the_plan_builds_one_of_two_antennas_in_one_place():
+    # A reviewer's plan said "build 2 ... 1. pair NE auto ... 2. pair NE given" while a warning said the two touch and
+    # both cannot be built there.  Two arrays on the same two spots, each the best toward one target: the plan builds
+    # the better of them, serves each target with the best of what it builds, and says why the other's target is not
+    # served by its best.
+    from snrgain.decide.plan import station_plan, worth
+    from snrgain.outputs.messages import plan_not_best_text
+
+    r = snrgain.evaluate(ONE_SPOT)
+    assert {frozenset((n.antenna, n.values["other"])) for n in r.notices if n.code == "antennas-same-place"} == {
+        frozenset(("pair NE", "pair SW"))
+    }
+    names = [a.name for a in r.antennas]
+    g = np.array([a.snr_gain_median_db for a in r.antennas])
+    w = np.array([t["weight"] for t in r.targets])
+    assert sorted(station_plan(names, g, w).antennas) == ["pair NE", "pair SW"]  # without the places: both (as was)
+    p = r.plan
+    assert len(p.antennas) == 1 and p.alternatives == [("pair NE", "pair SW")]
+    (built,) = p.antennas
+    other = "pair SW" if built == "pair NE" else "pair NE"
+    assert p.gain_db == pytest.approx(max(worth(g, w, [1]), worth(g, w, [2])))
+    (t,) = [t for t in p.not_best]
+    why = p.not_best[t]
+    assert why["reason"] == "alternative" and why["best"] == other and why["instead"] == [built]
+    assert why["swap_db"] == pytest.approx(worth(g, w, [names.index(other)]) - p.gain_db) and why["swap_db"] <= 0
+    text = plan_not_best_text(r.targets[t]["name"], why)
+    assert f"is not in the plan because the plan builds {built} in its place (the two stand in one place" in text
+    assert "dB less as a whole" in text
+    assert r.to_dict()["plan"]["alternatives"] == [["pair NE", "pair SW"]]
+
+
+def test_the_greedy_plan_and_a_units_parts_keep_to_one_of_two_in_one_place(monkeypatch):
+    # The greedy search (beyond EXACT_LIMIT candidates) skips a set holding both too; and a phasing unit stands where
+    # its parts stand, so a unit over 'whip' and a second whip on that spot are alternatives as well.
+    from snrgain.decide import plan as planmod
+
+    g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
+    w = np.array([0.5, 0.5])
+    monkeypatch.setattr(planmod, "EXACT_LIMIT", 0)
+    greedy = planmod.station_plan(["ref", "a", "b"], g, w, alternatives=[(1, 2)])
+    assert greedy.method == "greedy" and greedy.antennas == ["a"] and greedy.not_best[1]["reason"] == "alternative"
+    monkeypatch.undo()
+    u = np.array([[0.0, 0.0], [5.0, 0.0], [0.0, 0.0], [9.0, 0.0], [0.0, 5.0]])  # 'unit' over 'bev' and 'whip'
+    names = ["ref", "bev", "whip", "unit", "whip 2"]
+    parts = [(), (), (), (1, 2), ()]
+    assert planmod.station_plan(names, u, w, parts=parts).antennas == ["unit", "whip 2"]
+    p = planmod.station_plan(names, u, w, parts=parts, alternatives=[(2, 4)])  # 'whip 2' on the unit's whip
+    assert p.antennas == ["unit"] and ("unit", "whip 2") in p.alternatives
+    assert p.not_best[1] | {"swap_db": None} == {
+        "best": "whip 2",
+        "best_db": 5.0,
+        "served_by": "ref",
+        "served_db": 0.0,
+        "reason": "alternative",
+        "instead": ["unit"],
+        "weight": 0.5,
+        "swap_db": None,
+    }

@@ -240,3 +240,54 @@ def test_a_sources_stated_uncertainty_is_its_noise_deciles():
     c = r.noise.components["shed supply"]
     assert np.allclose(c["du_db"], 3.0) and np.allclose(c["dl_db"], 3.0)
     assert np.all(r.noise.total_du_db > 0.0)
+
+
+def test_a_lobe_turned_away_by_the_snr_steering_is_not_blamed_on_phases_never_given(tmp_path):
+    """A reviewer's array steered for SNR turned its main lobe to 225 deg to null a placed inverter, and the warning
+    told the user to check the sign of phases never given.  With the supply 50 m in front of the pair (north-east),
+    the SNR steering nulls it and the lobe swings back: the warning says the steering did it, that the build sheet's
+    bearing is not its beam, and what to do; steered for RDF the lobe stays forward; a given phasing that beams the
+    array back keeps its old warning (a sign to check)."""
+    from snrgain.antennas import from_spec
+    from snrgain.decide.decisions import lobe_away
+    from snrgain.model.notices import Notice
+    from snrgain.outputs.messages import notice_text
+
+    in_front = SITE.replace("position = [60, 40]", "position = [130, 90]")
+    (snr,) = [n for n in _steered_text(in_front, "snr", tmp_path).notices if n.code == "lobe-away-from-bearing"]
+    assert snr.values["steering"] == "auto" and snr.values["auto_for"] == "snr"
+    assert snr.values["sources"] == ["shed supply"] and abs(snr.values["lobe_deg"] - 225) < 20
+    text = notice_text(snr)
+    assert "check the sign" not in text
+    assert (
+        "its steering for SNR under the site's noise (auto_for = 'snr') turned it there to null what it hears" in text
+    )
+    assert "'shed supply'" in text and "the build sheet's 'toward 45 deg' is its bearing, not its beam" in text
+    assert "write auto_for = 'rdf'; or accept the null" in text
+    assert not [n for n in _steered_text(in_front, "rdf", tmp_path).notices if n.code == "lobe-away-from-bearing"]
+    q = 299792458.0 / 1.83e6 / 4
+    given = {
+        "family": "phased-verticals",
+        "positions": [[0, 0], [0, q]],
+        "height": "5 m",
+        "bearing": 0,
+        "steering": "given",
+        "phases": [0, 90],
+        "phase_sense": "lead",
+        "ground": "moist loam",
+    }
+    away = lobe_away(from_spec(given), 1.83e6)
+    assert away["steering"] == "given" and "auto_for" not in away
+    assert "check the sign of its phases" in notice_text(Notice("lobe-away-from-bearing", "pair", away))
+    rdf = {**away, "steering": "auto", "auto_for": "rdf"}  # steered automatically for RDF: no phases to blame either
+    said = notice_text(Notice("lobe-away-from-bearing", "pair", rdf))
+    assert "(auto_for = 'rdf': no phases of yours to check)" in said and "check the sign" not in said
+
+
+def _steered_text(text: str, auto_for: str, tmp_path):
+    import snrgain
+    from snrgain.scenario import load
+
+    path = tmp_path / f"{auto_for}-text.toml"
+    path.write_text(text.replace("AUTO", auto_for))
+    return snrgain.evaluate(load(path))

@@ -8,6 +8,7 @@ import re
 import tomllib
 from pathlib import Path
 
+import numpy as np
 import pytest
 from click.testing import CliRunner
 
@@ -259,3 +260,77 @@ def test_errors_of_a_file_in_feet_quote_its_feet():
     assert _problems(metric)['candidate 1 ("Beverage")'].startswith("height: 18.29 m is 0.112 wavelengths")
     every = " ".join(_problems(FEET_SITE).values())
     assert not re.search(r"\d\.\d{4}", every), every  # never the metres inside to four decimals
+
+
+def test_a_front_to_back_near_zero_reads_without_a_minus_sign():
+    # A reviewer's warning read "front-to-back -0 dB" (a given phasing's -0.3 dB): every front-to-back in the
+    # notices, `wire` and the termination lines is rounded as the tables are, a negative zero never shown.
+    from snrgain.tools.wiredesign import bound_text
+
+    short = {"rdf_db": 6.2, "bearing_deg": 45.0, "front_to_back_db": -0.3, "rdf_best_db": 10.8}
+    short |= {"front_to_back_best_db": 9.0, "best_lags_deg": [0, 164.6]}
+    text = notice_text(Notice("given-phasing-short", "pair", short))
+    assert "(front-to-back 0 dB)" in text and "-0 dB" not in text
+    fragile = {"termination_ohm": 998.0, "safer_ohm": 325.0, "safer": "matched", "safer_words": "|Z0|"}
+    fragile |= {"over_safer_db": 0.09, "front_to_back_db": -0.04, "front_to_back_safer_db": 4.4}
+    assert "a front-to-back of 0.0 dB against 4.4 dB" in notice_text(Notice("termination-fragile", "bog", fragile))
+    structure = {"structure": "tower", "distance_m": 10.0, "cost_db": 3.0, "front_to_back_db": -0.4}
+    structure |= {"front_to_back_alone_db": -0.2, "forward_gain_change_db": -2.2}
+    said = notice_text(Notice("structure-cost", "loop", structure))
+    assert "front-to-back 0 dB against 0 dB without it" in said
+    answer = {"at_search_bound": "high", "search_ohm": [100.0, 3000.0], "loss_at_1p4_db": 0.0, "figure_db": -0.03}
+    assert "3000 ohm, 0.0 dB)" in bound_text(answer, "front-to-back")
+
+
+def test_a_suggested_choke_is_said_alike_in_the_build_sheet_and_the_warning():
+    # The build sheet said "a choke of 45401 ohm or more" while the warning said "about 45000 ohm": both now give it
+    # to two significant figures, as a choke's impedance is known.
+    from snrgain.outputs.messages import choke_text
+    from snrgain.outputs.output import feed_line_text
+
+    assert [choke_text(x) for x in (45401.0, 5061.0, 470.3, 4.54)] == [
+        "about 45000 ohm",
+        "about 5100 ohm",
+        "about 470 ohm",
+        "about 4.5 ohm",
+    ]
+    cost = {"cost_db": 10.1, "noise_share_db": -0.4, "choke_ohm": 45401.0, "quiet_below_db": 20.0}
+    warning = notice_text(Notice("feed-line-cost", "pennant", cost))
+    assert "a common-mode choke of about 45000 ohm at the antenna" in warning
+    fl = {"buried": False, "height_m": 1.0, "antenna_end": "the loop itself", "isolation": "shared-ground"}
+    fl |= {"choke_ohm": 0.0, "snr_gain_cost_db": [10.1], "choke_for_quiet_ohm": 45401.0, "quiet_below_db": 20.0}
+    fl |= {"length_m": 17.0, "station_ground_ohm": 25.0, "noise_share_db": -0.4}
+    sheet = feed_line_text(fl, "m")
+    assert "a choke of about 45000 ohm or more puts it 20 dB below" in sheet and "45401" not in sheet
+
+
+def test_the_noise_readings_column_and_the_preamp_column_are_named_plainly(feet_results):
+    # "Fa mm" was cryptic; and the rank table's preamp column showed "none" with no legend entry.
+    from snrgain.outputs.output import PREAMP_LEGEND, preamp_cell
+    from snrgain.tools import noisereadings as nr
+
+    row = {"reading": 1, "time_utc": "2026-11-10 23:00", "antenna": "v", "kind": "rise over load"}
+    row |= {"antenna_temperature_k": 4e4, "offset_db": -3.0, "man_made_fa_db": 45.2, "note": ""}
+    head, first = nr.fit_lines(nr.NoiseFit(0.0, -3.0, 0.5, 1.0, "quiet rural", 7.05e6, [row]))[:2]
+    assert "man-made Fa" in head and "Fa mm" not in head
+    assert head.index("man-made Fa") + len("man-made Fa") == first.index("45.2") + len("45.2")  # aligned
+    nan = np.array([[np.nan]])
+    assert (preamp_cell(False, nan), preamp_cell(True, nan), preamp_cell(True, nan, {"gain_db": 12.0})) == (
+        "-",
+        "none",
+        "12*",
+    )
+    assert "'none': no preamplifier would help, see the antenna's warning" in PREAMP_LEGEND
+    assert "'-': none needed" in PREAMP_LEGEND
+    import html
+    import io
+
+    from rich.console import Console
+
+    from snrgain.outputs.output import ranking_table
+    from snrgain.outputs.report import _ranking
+
+    console = Console(width=400, record=True, file=io.StringIO())
+    console.print(ranking_table(feet_results[1]))
+    assert PREAMP_LEGEND in console.export_text().replace("\n", " ")
+    assert PREAMP_LEGEND in html.unescape(_ranking(feet_results[1]))

@@ -146,6 +146,7 @@ def wire(
         return
     ant, ln = out["antenna"], out["line"]
     from snrgain.units import FT_PER_M as ft
+    from snrgain.units import number_text
 
     length_m, rule_m, best_m = ant["length_m"], out["length_rule_m"], out["best_length_m"]
     z0 = complex(*ln["z0_ohm"])
@@ -170,7 +171,7 @@ def wire(
         f"({rule_m * ft:.0f} ft); model's best for RDF = {best_m:.0f} m "
         f"({best_m * ft:.0f} ft), RDF {out['best_length_rdf_db']:.1f} dB",
         f"  this wire: forward gain {out['forward_gain_dbi']:.1f} dBi, RDF {out['rdf_db']:.1f} dB, "
-        f"front-to-back {out['front_to_back_db']:.1f} dB at {elevation:g} deg",
+        f"front-to-back {number_text(out['front_to_back_db'], FB_FORMAT)} dB at {elevation:g} deg",
     ]
     if "textbook_termination_ohm" in out:
         lo, hi = out["termination_search_ohm"]
@@ -194,6 +195,10 @@ def wire(
     click.echo("\n".join(lines_out))
 
 
+FB_FORMAT = "{:.1f}"
+"""The wire's front-to-back [dB] as printed (through number_text: never "-0.0")."""
+
+
 def termination_lines(out: dict) -> list[str]:
     """The one termination answer (wiredesign.termination_answer) as the builder reads it: the resistor of the
     antenna's criterion, its E12 value, |Z0| and the dB between, how flat the optimum is, the other criterion's
@@ -202,13 +207,14 @@ def termination_lines(out: dict) -> list[str]:
     crit = out.get("termination_criterion", "rdf")
     names = {"rdf": "RDF", "front_to_back": "front-to-back"}
     from snrgain.tools.wiredesign import bound_text
+    from snrgain.units import number_text
 
     a = answers.get(crit, answers["rdf"])
     other = answers["front_to_back" if a["criterion"] == "rdf" else "rdf"]
     ohm, name = a["termination_ohm"], names[a["criterion"]]
     bound = bound_text(a, f"{name} along the wire at 20 deg")
     if bound is None:
-        head = f"the resistor of best {name} along the wire at 20 deg ({a['figure_db']:.1f} dB)"
+        head = f"the resistor of best {name} along the wire at 20 deg ({number_text(a['figure_db'], FB_FORMAT)} dB)"
         flat = [(0.7, "loss_at_0p7_db"), (1.4, "loss_at_1p4_db")]
     else:  # an end of the range searched: only the side inside the range says how flat it is
         head = bound

@@ -4,7 +4,8 @@ The same plan and statistic as one band's (:func:`snrgain.decide.plan.station_pl
 (band, target) pairs: an antenna's column is its median SNR gain over the reference toward that target on that
 band, 0 dB (the reference's) where it is not a candidate of the band.  Each band counts alike: a band's target
 weights are scaled to sum to 1 / (number of bands).  An antenna listed in several bands is one antenna to build
-(the same name); the plan says which band, target and hours each serves.
+(the same name); the plan says which band, target and hours each serves.  Two antennas that stand in one place on
+any band's plan (:attr:`snrgain.decide.plan.Plan.alternatives`) are not both built.
 """
 
 from __future__ import annotations
@@ -47,6 +48,8 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
             )
     buildable = [True] + [FAMILIES[families[n]].build.buildable for n in names[1:]]
     max_antennas = bands[0][1].plan.max_antennas if bands[0][1].plan is not None else None
+    index = {n: k for k, n in enumerate(names)}
+    pairs = [pair for _, r in bands if r.plan is not None for pair in getattr(r.plan, "alternatives", ())]
     plan = station_plan(
         names,
         np.array(gains).T,
@@ -55,6 +58,9 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
         buildable=buildable,
         target_times=times,
         groups=[None] + [groups[n] for n in names[1:]],
+        alternatives=sorted(
+            {(index[a], index[b]) for a, b in pairs if a in index and b in index}  # of one band or another
+        ),
     )
     return plan, tuple(columns)
 

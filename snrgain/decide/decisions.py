@@ -36,14 +36,21 @@ LOBE_AWAY_DEG = 90.0
 
 
 def lobe_away(antenna, freq_hz: float) -> dict | None:
-    """{bearing_deg, lobe_deg, off_deg} of an array whose main lobe (:func:`main_lobe_deg`) lies more than
-    LOBE_AWAY_DEG from its bearing: the ``lobe-away-from-bearing`` notice's values; None otherwise."""
+    """{bearing_deg, lobe_deg, off_deg, steering[, auto_for]} of an array whose main lobe (:func:`main_lobe_deg`) lies
+    more than LOBE_AWAY_DEG from its bearing: the ``lobe-away-from-bearing`` notice's values; None otherwise.
+    ``steering`` says how its phases were set: "given" (the user's phasing or delays, whose sign is to be checked) or
+    "auto", with ``auto_for`` ("snr": under the site's noise, where the steering may turn the lobe away to null what
+    it hears; "rdf", ...)."""
     lobe = main_lobe_deg(antenna, freq_hz)
     if lobe is None:
         return None
     bearing = float(np.degrees(antenna.params.bearing)) % 360.0
     off = abs((lobe - bearing + 180.0) % 360.0 - 180.0)
-    return {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off} if off > LOBE_AWAY_DEG else None
+    if off <= LOBE_AWAY_DEG:
+        return None
+    given = str(getattr(antenna, "steering_label", "given")) == "given"
+    how = {"steering": "given"} if given else {"steering": "auto", "auto_for": str(antenna.auto_for)}
+    return {"bearing_deg": bearing, "lobe_deg": lobe, "off_deg": off, **how}
 
 
 def _best_effort_values(r: AntennaResult) -> dict:
@@ -84,6 +91,8 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     for ant in sc.candidates:
         away = lobe_away(ant, sc.freq_hz)
         if away is not None:
+            if away.get("auto_for") == "snr":  # set under the noise, which these sources are part of
+                away |= {"composite": bool(ant.composite), "sources": [s.name for s in sc.noise.local]}
             out.append(Notice("lobe-away-from-bearing", ant.name, away))
         far = getattr(ant, "far_rod_ohm", None)
         auto = getattr(ant.params, "termination", "auto") == "auto" or getattr(ant, "sky_termination", None)
@@ -187,6 +196,15 @@ def _part_indices(sc: Scenario, ant) -> tuple[int, ...]:
     if not ant.composite:
         return ()
     return tuple(k for k, a in enumerate(sc.antennas) if any(a is e for e in ant.elements) and k > 0)
+
+
+def _alternative_indices(sc: Scenario) -> list[tuple[int, int]]:
+    """The pairs of candidates (indices among the scenario's antennas) that stand in one place, of which the station
+    plan builds one at most (snrgain.decide.lot.alternatives)."""
+    from snrgain.decide.lot import alternatives
+
+    index = {a.name: k for k, a in enumerate(sc.antennas)}
+    return [(index[a], index[b]) for a, b in alternatives(sc)]
 
 
 def reference_setting_notices(sc: Scenario) -> list[Notice]:
@@ -439,6 +457,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         target_times=[(list(tt.months), list(tt.utc_hours)) for tt in sc.target_times],
         groups=[a.group for a in antennas],
         parts=[_part_indices(sc, ant) for ant in sc.antennas],
+        alternatives=_alternative_indices(sc),
     )
     return Results(
         source=sc.source,

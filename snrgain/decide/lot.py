@@ -316,6 +316,37 @@ def of_every_state(notices: list[Notice], stands: dict[str, list[str]], whole: d
     return out
 
 
+def _pair_notices(sc, shapes, only) -> list[Notice]:
+    """Of two places: wires crossing (``wires-cross``) or laid alike (``wires-same-place``), antennas on one spot
+    (``antennas-same-place``); ``shapes`` and ``only`` as :func:`_place_notices`'s."""
+    out = []
+    wires = [(a, s) for a, s in shapes if s is not None and s.geom_type == "LineString"]
+    for i, (a, s) in enumerate(wires):
+        for b, t in wires[i + 1 :]:
+            if _one_antenna(a, b) or (only is not None and a.name not in only and b.name not in only):
+                continue  # two states of one switched antenna are the same wire
+            if s.hausdorff_distance(t) < SAME_PLACE_M:  # alternatives laid alike (choked or not, two heights)
+                out.append(Notice("wires-same-place", a.name, {"other": b.name}))
+            elif s.crosses(t) or (s.intersects(t) and not s.touches(t)):
+                out.append(Notice("wires-cross", a.name, {"other": b.name}))
+    out.extend(_too_close(shapes, only, {a.name for a, _ in wires}, _unit_parts(sc)))
+    return out
+
+
+SAME_PLACE_CODES = ("wires-same-place", "antennas-same-place")
+"""The notices of two candidates that stand in one place: alternatives, one of which can be built there."""
+
+
+def alternatives(sc) -> list[tuple[str, str]]:
+    """The pairs of candidates (by name; each state of a switched antenna by its own) that stand in one place, so
+    that one of the two can be built there: the pairs the ``wires-same-place`` and ``antennas-same-place`` notices
+    name, with their exceptions (the states of one switched antenna, a phasing unit's own parts).  The station plan
+    builds at most one of each pair (snrgain.decide.plan.station_plan's ``alternatives``)."""
+    shapes, stands = places(sc)
+    found = [n for n in _pair_notices(sc, shapes, None) if n.code in SAME_PLACE_CODES]
+    return [(n.antenna, n.values["other"]) for n in of_every_state(found, stands, {})]
+
+
 def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
     """Off the lot, in a keep-out, wires crossing or laid alike, antennas on one spot, near the TX vertical: of each
     place once (``shapes``: :func:`places`; ``only``: the places of a sweep's design, or None)."""
@@ -334,16 +365,7 @@ def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
         for name, area in keep:
             if shape.intersects(area):
                 out.append(Notice("in-keep-out", ant.name, {"area": name}))
-    wires = [(a, s) for a, s in shapes if s is not None and s.geom_type == "LineString"]
-    for i, (a, s) in enumerate(wires):
-        for b, t in wires[i + 1 :]:
-            if _one_antenna(a, b) or (only is not None and a.name not in only and b.name not in only):
-                continue  # two states of one switched antenna are the same wire
-            if s.hausdorff_distance(t) < SAME_PLACE_M:  # alternatives laid alike (choked or not, two heights)
-                out.append(Notice("wires-same-place", a.name, {"other": b.name}))
-            elif s.crosses(t) or (s.intersects(t) and not s.touches(t)):
-                out.append(Notice("wires-cross", a.name, {"other": b.name}))
-    out.extend(_too_close(shapes, only, {a.name for a, _ in wires}, _unit_parts(sc)))
+    out.extend(_pair_notices(sc, shapes, only))
     from snrgain.model.scatter import tx_antenna
 
     ref = tx_antenna(sc)

@@ -30,6 +30,11 @@ A switched antenna (a candidate with ``directions``) is one antenna to build who
 candidates: the plan takes its states together, as one member that serves each target in its best state (its
 G[., t] is the highest of its states'), so building it counts once against ``max_antennas`` and it is named once
 in :attr:`Plan.antennas` by its group; the services name the state that serves each target.
+
+Two candidates that stand in one place (snrgain.decide.lot.alternatives: a whip on another, two wires laid alike)
+are alternatives to compare, one of which can be built there: no set holding both is tried, by the exact search or
+the greedy one, and a phasing unit stands where its parts stand.  A target whose best is left out for the other is
+served by the best of what the plan builds, and :attr:`Plan.not_best` says so (reason "alternative").
 """
 
 from __future__ import annotations
@@ -81,10 +86,15 @@ class Plan:
     """Target index -> {best, best_db, served_by, served_db, reason, adds_db, weight} where the target's best antenna
     is not the one the plan serves it with; reason "max_antennas" (the plan holds no more) or "adds_little" (it adds
     less than MIN_ADDED_DB to the plan's worth); adds_db what building it too would add to the plan's worth, weight
-    the target's share of it."""
+    the target's share of it; or reason "alternative" (it stands where ``instead``, members of the plan, stand, so it
+    cannot be built too), with swap_db, what building it in their place would change the plan's worth by, in place
+    of adds_db."""
     states: dict[str, list[str]] = field(default_factory=dict)
     """A switched antenna of the plan (by its group name, as in ``antennas``) -> its states that serve a target, in
     the order written; the antenna is built once and switched between them."""
+    alternatives: list[tuple[str, str]] = field(default_factory=list)
+    """Pairs of antennas (by name; a switched antenna's states each by its own, a phasing unit by its name where one
+    of its parts stands in the other's place) of which the plan builds one at most: they stand in one place."""
 
 
 def worth(gains: np.ndarray, weights: np.ndarray, members) -> float:
@@ -109,6 +119,7 @@ def station_plan(
     target_times=None,
     groups=None,
     parts=None,
+    alternatives=None,
 ) -> Plan:
     """The station plan (module docstring); ``names[0]`` is the reference.
 
@@ -117,7 +128,9 @@ def station_plan(
     each target is listened at, for the services; ``groups[i]``: the switched antenna that antenna i is a state of
     (None: an antenna of its own); the states of one group are one member of the plan; ``parts[i]``: the antennas
     (indices) a phasing unit i is built over, which come with it (each may serve a target alone: the unit passes it
-    alone).
+    alone); ``alternatives``: pairs (or larger groups) of antennas (indices) of which one at most can be built (they
+    stand in one place): no set holding two of them is tried, and a target whose best is left out for the other gets
+    the reason "alternative" (``instead``: the members built in its place).
 
     >>> g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
     >>> p = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]))
@@ -133,6 +146,9 @@ def station_plan(
     >>> p2 = station_plan(["ref", "bev", "whip", "unit"], u, np.array([0.5, 0.5]), parts=[(), (), (), (1, 2)])
     >>> p2.antennas, [p2.by_target[t][0].antenna for t in (0, 1)]
     (['unit'], ['unit', 'bev'])
+    >>> alt = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]), alternatives=[(1, 2)])  # 'a' stands on 'b'
+    >>> alt.antennas, alt.alternatives, alt.not_best[1]["reason"], alt.not_best[1]["instead"]
+    (['a'], [('a', 'b')], 'alternative', ['a'])
     """
     gains = np.nan_to_num(np.asarray(gains, dtype=float), nan=0.0)
     gains[0] = 0.0
@@ -157,12 +173,19 @@ def station_plan(
         return worth(gains, weights, [i for u in chosen_units for i in built(u)])
 
     n = len(units)
+    clash = clashes([built(u) for u in range(n)], alternatives)
+
+    def apart(members) -> bool:  # no two of them stand in one place
+        return not any(frozenset(pair) in clash for pair in combinations(members, 2))
+
     limit = n if max_antennas is None else min(max_antennas, n)
     if n <= EXACT_LIMIT:
         method = "exact"
         best, best_value = (), 0.0
         for k in range(1, limit + 1):
             for members in combinations(range(n), k):
+                if not apart(members):
+                    continue
                 v = value(members)
                 if v > best_value + 1e-12:
                     best, best_value = members, v
@@ -172,7 +195,10 @@ def station_plan(
         chosen = []
         while len(chosen) < limit:
             base = value(chosen)
-            step, pick = max((value([*chosen, c]) - base, c) for c in range(n) if c not in chosen)
+            step, pick = max(
+                ((value([*chosen, c]) - base, c) for c in range(n) if c not in chosen and apart([*chosen, c])),
+                default=(0.0, None),
+            )
             if step <= 0:
                 break
             chosen.append(pick)
@@ -200,7 +226,7 @@ def station_plan(
         top = max(candidates, key=lambda a: gains[a, t], default=None)
         if top is not None and gains[top, t] > gains[served, t] + TIE_DB:
             u = unit_of[top]
-            not_best[t] = {
+            why = {
                 "best": names[top],
                 "best_db": float(gains[top, t]),
                 "served_by": names[served],
@@ -209,6 +235,13 @@ def station_plan(
                 "adds_db": float(value([*order, u]) - total),
                 "weight": float(weights[t]),
             }
+            instead = [v for v in order if frozenset((u, v)) in clash]
+            if instead:  # built in its place: building it too cannot be; swap_db, the worth with it there instead
+                swapped = [v for v in order if v not in instead] + [u]
+                del why["adds_db"]
+                why |= {"reason": "alternative", "instead": [unit_names[v] for v in instead]}
+                why["swap_db"] = float(value(swapped) - total)
+            not_best[t] = why
     states = {
         unit_names[u]: [names[i] for i in units[u] if i in serving] for u in order if groups[units[u][0]] is not None
     }
@@ -221,4 +254,26 @@ def station_plan(
         max_antennas,
         not_best,
         states,
+        [(names[i], names[j]) for u, v in sorted(tuple(sorted(c)) for c in clash) for i in units[u] for j in units[v]],
     )
+
+
+def clashes(built, alternatives) -> set[frozenset]:
+    """The pairs of members (indices into ``built``, each member's antennas: its own and those built with it) that
+    cannot both be built: one's antenna and the other's are two of one group of ``alternatives`` (indices of
+    antennas of which one at most can be built); a pair both of whose antennas one member builds (a phasing unit's
+    own parts) is no clash.
+
+    >>> sorted(map(sorted, clashes([(1,), (2,), (3, 1, 2)], [(1, 2)])))  # 3: a unit built over 1 and 2
+    [[0, 1]]
+    """
+    groups = [set(g) for g in alternatives or ()]
+    sets = [set(b) for b in built]
+    out = set()
+    for u, v in combinations(range(len(sets)), 2):
+        for g in groups:
+            pairs = ((i, j) for i in g & sets[u] for j in g & sets[v] if i != j)
+            if any(not {i, j} <= sets[u] and not {i, j} <= sets[v] for i, j in pairs):
+                out.add(frozenset((u, v)))
+                break
+    return out

@@ -383,6 +383,7 @@ def plan_to_dict(p, rows_key: str, where) -> dict[str, Any]:
         ],
         "not_best": [{**where(c), **why} for c, why in sorted(p.not_best.items())],
         "states": getattr(p, "states", {}),
+        "alternatives": [list(pair) for pair in getattr(p, "alternatives", ())],
     }
 
 

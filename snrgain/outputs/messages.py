@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.notices import Notice
 from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
-from snrgain.units import length_text, per_m, signed_text
+from snrgain.units import length_text, number_text, per_m, signed_text, significant_text
 
 
 def _upper_bound(v) -> str:
@@ -99,6 +99,17 @@ def criterion_words(criterion: str, target: str | None = None) -> str:
     return f"{words} toward {target}" if target else words
 
 
+def _db(x: float, decimals: int = 0) -> str:
+    """A figure in dB (front-to-back: often near 0) to ``decimals`` places, never "-0" (:func:`number_text`)."""
+    return number_text(x, f"{{:.{decimals}f}}")
+
+
+def choke_text(ohm: float) -> str:
+    """A choke's suggested impedance to two significant figures, as the build sheet and the warnings say it (a
+    choke's impedance is known to a few per cent at best): 45401 -> "about 45000 ohm", 5061 -> "about 5100 ohm"."""
+    return f"about {significant_text(float(f'{float(ohm):.2g}'), 2)} ohm"
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
@@ -117,8 +128,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         lags = ", ".join(f"{x:g}" for x in v["best_lags_deg"])
         return (
             f"{n.antenna}: its given phasing gives an RDF of {v['rdf_db']:.1f} dB toward {v['bearing_deg']:.0f} deg "
-            f"(front-to-back {v['front_to_back_db']:.0f} dB); the same array phased for RDF there gives "
-            f"{v['rdf_best_db']:.1f} dB (front-to-back {v['front_to_back_best_db']:.0f} dB), with phase lags of "
+            f"(front-to-back {_db(v['front_to_back_db'])} dB); the same array phased for RDF there gives "
+            f"{v['rdf_best_db']:.1f} dB (front-to-back {_db(v['front_to_back_best_db'])} dB), with phase lags of "
             f"{lags} deg element by element: check the phasing (a close pair wants nearly 180 deg less its "
             "spacing in degrees, common practice), or write steering = 'auto'"
         )
@@ -130,11 +141,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "row in a ranking over another antenna; rank it as a candidate to see it set for the SNR"
         )
     if n.code == "lobe-away-from-bearing":
-        return (
-            f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
-            f"bearing {v['bearing_deg']:.0f} deg; check the sign of its phases (phase_sense = 'lag' delays an "
-            "element's signal by its phase) or its delays (positive: the signal comes later)"
-        )
+        return _lobe_away_text(n)
     if n.code == "resistor-per-band":
         bands = v["bands"]
 
@@ -150,7 +157,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             why = " (" + "; ".join(f"{b['band']}: {criterion_words(b['criterion'], b['target'])}" for b in bands) + ")"
         served = " and ".join(b["band"] for b in bands)
         costs = " and ".join(
-            f"{b['loss_db']:.1f} dB on {b['band']} (front-to-back {b['front_to_back_db']:.0f} dB)" for b in bands
+            f"{b['loss_db']:.1f} dB on {b['band']} (front-to-back {_db(b['front_to_back_db'])} dB)" for b in bands
         )
         text = (
             f"{n.antenna} serves {served} but its best resistor differs between them: "
@@ -160,7 +167,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         safer = v.get("safer")
         if safer:
             alt = " and ".join(
-                f"{b['loss_db']:.1f} dB on {b['band']} (front-to-back {b['front_to_back_db']:.0f} dB)"
+                f"{b['loss_db']:.1f} dB on {b['band']} (front-to-back {_db(b['front_to_back_db'])} dB)"
                 for b in safer["bands"]
             )
             text += (
@@ -242,9 +249,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"{n.antenna}: the transmitting vertical {length_text(v['distance_m'], unit, 0)} away, {st}, costs "
             f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
-            f"{v[f'{st}_front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward "
+            f"{_db(v[f'{st}_front_to_back_db'])} dB against {_db(v['front_to_back_alone_db'])} dB without it, forward "
             f"gain {signed_text(v[st + '_forward_gain_change_db'])} dB. {other.capitalize()}: RDF "
-            f"{signed_text(v[other + '_rdf_change_db'])} dB, front-to-back {v[f'{other}_front_to_back_db']:.0f} dB"
+            f"{signed_text(v[other + '_rdf_change_db'])} dB, front-to-back {_db(v[f'{other}_front_to_back_db'])} dB"
             + (_DETUNE_CAUTION if st == "resonant" else "; check the detuning (an open relay, or the reactance given)")
         )
     if n.code == "feed-line-ground-assumed":
@@ -265,8 +272,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         how = f'(termination = "{safer}")' if v["safer"] == "matched" else f'(auto_for = "{v["safer"]}")'
         return (
             f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats {v['safer_words']} "
-            f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of {v['front_to_back_db']:.1f} "
-            f"dB against {v['front_to_back_safer_db']:.1f} dB at {safer}: what it adds rests on the noise as modelled "
+            f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of "
+            f"{_db(v['front_to_back_db'], 1)} dB against {_db(v['front_to_back_safer_db'], 1)} dB at {safer}: what it "
+            "adds rests on the noise as modelled "
             "(its sources' bearings and levels, the storms' directions), the rear null it gives up does not; unless "
             f"you trust that model, {safer} is the safer build {how}"
         )
@@ -283,8 +291,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"{_ns_text(v['longest_error_ns'] * 1e-9 * v['freq_hz'] * 360.0)} deg at the operating frequency), "
             f"its RDF toward {v['bearing_deg']:.0f} deg at {v['elevation_deg']:.0f} deg elevation, {v['rdf_db']:.1f} "
             f"dB, becomes {rdf[0]:.1f} to {rdf[2]:.1f} dB (median {rdf[1]:.1f}) and its "
-            f"front-to-back of {cap}{v['front_to_back_db']:.0f} dB becomes {fb[0]:.0f} to {fb[2]:.0f} dB (median "
-            f"{fb[1]:.0f}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure; said "
+            f"front-to-back of {cap}{_db(v['front_to_back_db'])} dB becomes {_db(fb[0])} to {_db(fb[2])} dB (median "
+            f"{_db(fb[1])}; 10-90 % of {v['draws']} draws: one build in ten does worse than the first figure; said "
             f"where that build loses {tolerance.RDF_LOSS_DB:g} dB of RDF, or {tolerance.FRONT_TO_BACK_LOSS_DB:g} dB of "
             f"front-to-back down to under {tolerance.FRONT_TO_BACK_KEPT_DB:g} dB)."
         )
@@ -294,7 +302,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             text += (
                 f" Built with phase-reversing transformers giving elements their 180 deg (the lines then at most "
                 f"{rev['longest_delay_ns']:.0f} ns), one build in ten {keeps} RDF "
-                f"{rev['rdf_drawn_db'][0]:.1f} dB and front-to-back {rev['front_to_back_drawn_db'][0]:.0f} dB: the "
+                f"{rev['rdf_drawn_db'][0]:.1f} dB and front-to-back {_db(rev['front_to_back_drawn_db'][0])} dB: the "
                 "usual way to build it (common practice)."
             )
         return text + (
@@ -344,9 +352,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "source, another place, or quieting the source gains more than a sharper pattern"
         )
     if n.code == "feed-line-cost":
-        about = float(f"{v['choke_ohm']:.2g}")  # a choke's impedance is known to a few per cent at best
         choke = (
-            f"a common-mode choke of about {about:g} ohm at the antenna puts it {v['quiet_below_db']:g} dB "
+            f"a common-mode choke of {choke_text(v['choke_ohm'])} at the antenna puts it {v['quiet_below_db']:g} dB "
             "below the antenna's own pickup"
             if v["choke_ohm"] > 0
             else "it is already 20 dB below the antenna's own pickup at its worst hour"
@@ -361,7 +368,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"{n.antenna}: the structure {v['structure']!r} {length_text(v['distance_m'], unit, 0)} away costs "
             f"{v['cost_db']:.1f} dB of RDF (the SNR gain under a uniform sky); front-to-back "
-            f"{v['front_to_back_db']:.0f} dB against {v['front_to_back_alone_db']:.0f} dB without it, forward gain "
+            f"{_db(v['front_to_back_db'])} dB against {_db(v['front_to_back_alone_db'])} dB without it, forward gain "
             f"{signed_text(v['forward_gain_change_db'])} dB: move the antenna, or break the structure's resonance "
             "(insulate its foot or change what loads it) where that is safe and its lightning protection allows"
         )
@@ -427,6 +434,43 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     return f"{n.antenna + ': ' if n.antenna else ''}{n.code}" + (f" ({detail})" if detail else "")
 
 
+def _lobe_away_text(n: Notice) -> str:
+    """The lobe-away-from-bearing notice in words: a given phasing's sign to check; an array (or a phasing unit) set
+    for SNR under the site's noise turned away to null what it hears; an automatic steering for another figure that
+    leaves the lobe there."""
+    v = n.values
+    head = (
+        f"{n.antenna}: its main lobe points to {v['lobe_deg']:.0f} deg, {v['off_deg']:.0f} deg away from its "
+        f"bearing {v['bearing_deg']:.0f} deg"
+    )
+    auto_for = v.get("auto_for") if v.get("steering") == "auto" else None
+    beam = f"the build sheet's 'toward {v['bearing_deg']:.0f} deg' is its bearing, not its beam"
+    if auto_for == "snr":
+        sources = v.get("sources") or []
+        heard = (
+            f"e.g. the local source{'s' if len(sources) > 1 else ''} {_either(repr(s) for s in sources)}"
+            if sources
+            else "e.g. the storms' directions"
+        )
+        if v.get("composite"):
+            how, keep = "its setting for SNR under the site's noise (setting = 'auto')", "give its setting instead"
+        else:
+            how, keep = "its steering for SNR under the site's noise (auto_for = 'snr')", "write auto_for = 'rdf'"
+        return (
+            f"{head}: {how} turned it there to null what it hears ({heard}); {beam}. To keep the lobe on its "
+            f"bearing, {keep}; or accept the null, and the lobe at {v['lobe_deg']:.0f} deg with it"
+        )
+    if auto_for is not None:
+        return (
+            f"{head} under its automatic steering (auto_for = '{auto_for}': no phases of yours to check): its "
+            f"elements' places or a structure's re-radiation leave it no stronger lobe nearer its bearing; {beam}"
+        )
+    return (
+        f"{head}; check the sign of its phases (phase_sense = 'lag' delays an element's signal by its phase) or its "
+        "delays (positive: the signal comes later)"
+    )
+
+
 def best_effort_text(v: dict) -> str:
     """Where no preamplifier reaches the margin target, what one still recovers (a receiver-limited notice's values
     best_gain_db, best_position, best_max_snr_loss_db), in words; "" where one reaches it."""
@@ -474,6 +518,8 @@ def plan_not_best_text(target: str, why: dict) -> str:
             f"{target}: {why['served_by']} serves it ({signed_text(why['served_db'])} dB), within 0.05 dB of the best, "
             f"{why['best']}, which the plan does not build for it."
         )
+    if why["reason"] == "alternative":
+        return _alternative_text(target, why)
     if why["reason"] == "max_antennas":
         reason, then = "the plan holds no more antennas ([plan] max_antennas)", ""
     else:
@@ -489,4 +535,32 @@ def plan_not_best_text(target: str, why: dict) -> str:
     return (
         f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because {reason}; "
         f"{why['served_by']} serves it ({signed_text(why['served_db'])} dB).{then}"
+    )
+
+
+_PLACE_SHARED = {
+    True: "the two stand in one place, and only one can be built there",
+    False: "they stand where it stands, and it cannot be built beside them",
+}
+
+
+def _alternative_text(target: str, why: dict) -> str:
+    """A target's best left out of the plan because another antenna of the plan stands in its place (reason
+    "alternative": ``instead``, swap_db), in words."""
+    instead = why["instead"]
+    those = " and ".join(instead)
+    one = len(instead) == 1
+    swap = why.get("swap_db")
+    if swap is None:
+        change = ""
+    elif swap < -0.005:
+        change = f"; with {why['best']} there instead the plan would be worth {-swap:.2f} dB less as a whole"
+    elif swap > 0.005:
+        change = f"; with {why['best']} there instead the plan would be worth {swap:.2f} dB more as a whole"
+    else:
+        change = f"; with {why['best']} there instead the plan would be worth as much as a whole"
+    return (
+        f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because the plan "
+        f"builds {those} in its place ({_PLACE_SHARED[one]}){change}; {why['served_by']} serves it "
+        f"({signed_text(why['served_db'])} dB)."
     )

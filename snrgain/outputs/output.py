@@ -107,15 +107,24 @@ def _f(x, fmt="{:+.1f}"):
     return number_text(x, fmt)  # a small negative that rounds to zero reads 0.0, not -0.0
 
 
-def _preamp_cell(limited: bool, gain_db, best_effort: dict | None = None) -> str:
-    """The preamp column: the gain that brings the margin to the target at every hour; where none can, the gain of
-    the preamplifier that comes closest, marked '*' ('none' if there is none to fit)."""
+def preamp_cell(limited: bool, gain_db, best_effort: dict | None = None) -> str:
+    """The preamp column (the terminal's and the report's): "-" where the margin reaches the target without one; the
+    gain that brings the margin to the target at every hour; where none can, the gain of the preamplifier that comes
+    closest, marked '*'; "none" where no preamplifier would help (:data:`PREAMP_LEGEND`)."""
     if not limited:
         return "-"
     g = np.asarray(gain_db, dtype=float)
     if not np.any(np.isnan(g)):
         return f"{float(np.max(g)):.0f}"
     return "none" if best_effort is None else f"{best_effort['gain_db']:.0f}*"
+
+
+PREAMP_LEGEND = (
+    "preamp: gain that would bring the margin to the target ('-': none needed, the margin reaches it; '*': no gain "
+    "can at every hour, and this gain comes within 0.5 dB of the best any gain gives; 'none': no preamplifier "
+    "would help, see the antenna's warning)"
+)
+"""The preamp column's legend (:func:`preamp_cell`), the terminal's and the report's."""
 
 
 def hours_text(hours) -> str:
@@ -273,7 +282,7 @@ def target_table(r: Results, i: int, lab=None):
             _f(np.clip(float(lab.get("front_to_back_db", antenna=k, target=i)), -99, 99)),
             f"{noise:.1f} ({s_units(noise)})",
             Text(_f(margin, "{:.1f}") + (" !" if limited else ""), style="bold red" if limited else None),
-            _preamp_cell(limited, lab.get("preamp_gain_needed_db", antenna=k), r.antenna(names[k]).preamp_best_effort),
+            preamp_cell(limited, lab.get("preamp_gain_needed_db", antenna=k), r.antenna(names[k]).preamp_best_effort),
         ]
         rows.append((cells, style))
     labels = (
@@ -584,7 +593,10 @@ def build_lines(r: Results) -> list[tuple[str, str]]:
 
 
 def feed_line_text(fl: dict, unit: str) -> str:
-    """A feed line's entry of the build sheet (snrgain.model.feedline.summary) in words."""
+    """A feed line's entry of the build sheet (snrgain.model.feedline.summary) in words (the choke it suggests said
+    as the warnings say it: messages.choke_text)."""
+    from snrgain.outputs.messages import choke_text
+
     run = "buried" if fl["buried"] else f"at {length_text(fl['height_m'], unit, 1)}"
     where = fl.get("antenna_end") or "the antenna's ground"
     iso = f"shield meets {where}" if fl["isolation"] == "shared-ground" else "isolation transformer"
@@ -599,7 +611,7 @@ def feed_line_text(fl: dict, unit: str) -> str:
     else:
         effect = f"costs {cost:.1f} dB of SNR gain"
     quiet = (
-        f"a choke of {fl['choke_for_quiet_ohm']:.0f} ohm or more puts it {fl['quiet_below_db']:g} dB below the "
+        f"a choke of {choke_text(fl['choke_for_quiet_ohm'])} or more puts it {fl['quiet_below_db']:g} dB below the "
         "antenna's own"
         if fl["choke_for_quiet_ohm"] > 0
         else f"it is {fl['quiet_below_db']:g} dB or more below the antenna's own"
@@ -645,8 +657,7 @@ def ranking_table(results: Results, *, build: bool = False):
             "averaged over the whole sphere: toward a low target it reads lower than an RDF at 20 deg, the elevation "
             "of the transmitting vertical's figures and of auto steering); "
             "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
-            "hour); '!' marks a receiver-noise-limited antenna; preamp: gain that would bring the margin to the "
-            "target ('*': no gain can at every hour, and this gain comes within 0.5 dB of the best any gain gives).",
+            f"hour); '!' marks a receiver-noise-limited antenna; {PREAMP_LEGEND}.",
             style="dim",
         )
     )

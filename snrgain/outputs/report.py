@@ -14,7 +14,7 @@ from datetime import UTC, datetime
 import numpy as np
 
 from snrgain.outputs import plots
-from snrgain.outputs.output import ground_text
+from snrgain.outputs.output import PREAMP_LEGEND, ground_text, preamp_cell
 from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import number_text, s_units, signed_text
 
@@ -214,11 +214,8 @@ def _ranking(r) -> str:
         for rank, a in ranked:
             noise = float(np.median(a.noise_dbm))
             margin = float(np.min(a.margin_db))
-            pre = (
-                "&ndash;"
-                if not a.receiver_limited
-                else ("none" if np.any(np.isnan(a.preamp_gain_needed_db)) else f"{np.max(a.preamp_gain_needed_db):.0f}")
-            )
+            pre = preamp_cell(a.receiver_limited, a.preamp_gain_needed_db, a.preamp_best_effort)
+            pre = "&ndash;" if pre == "-" else pre
             ref = a is r.reference
             cells = [
                 rank,
@@ -256,7 +253,7 @@ def _ranking(r) -> str:
         f"spreads counted ({_e(_spread_words(r))}); P: the chance of beating the reference by "
         f"{r.beat_by_db:g} dB or more. RDF on the trade's scale (over the gain averaged over the whole sphere). "
         "Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the worst hour; "
-        "'!' marks an antenna limited by receiver noise; preamp: gain that would reach the target.</p>"
+        f"'!' marks an antenna limited by receiver noise; {_e(PREAMP_LEGEND)}.</p>"
     )
     if r.warnings:
         out.append("<ul>" + "".join(f"<li>{_e(wn)}</li>" for wn in r.warnings) + "</ul>")

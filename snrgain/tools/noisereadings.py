@@ -585,16 +585,17 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
 
 
 def fit_lines(f: NoiseFit) -> list[str]:
+    """The fit as the terminal shows it: a row per reading (its antenna temperature, the man-made offset it implies
+    and the man-made noise's Fa [dB above kT0b] with that offset), then the fit."""
     wa = max([len("antenna"), *(len(r["antenna"]) for r in f.rows)])  # names whole, as long as the longest
-    out = [
-        f"{'#':>3} {'UTC':<16} {'antenna':<{wa}} {'reading':<16} {'T_A [K]':>10} {'offset':>7} {'Fa mm':>6}  note",
-    ]
+    head = f"{'#':>3} {'UTC':<16} {'antenna':<{wa}} {'reading':<16} {'T_A [K]':>10} {'offset':>7}"
+    out = [f"{head} {'man-made Fa':>11}  note"]
     for r in f.rows:
         off = "-" if r["offset_db"] is None else f"{r['offset_db']:+.1f}"
         fa = "-" if r["man_made_fa_db"] is None else f"{r['man_made_fa_db']:.1f}"
         out.append(
             f"{r['reading']:>3} {r['time_utc']:<16} {r['antenna']:<{wa}} {r['kind'][:16]:<16} "
-            f"{r['antenna_temperature_k']:>10.3g} {off:>7} {fa:>6}  {r['note']}"
+            f"{r['antenna_temperature_k']:>10.3g} {off:>7} {fa:>11}  {r['note']}"
         )
     if not f.determined:
         return out + [

@@ -28,6 +28,7 @@ from snrgain.physics import lines
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.targets import TargetDirections, from_bearing
 from snrgain.records import record
+from snrgain.units import number_text
 
 PRACTICAL_TURNS = (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0)
 """Turns ratios easy to wind on a small two-hole ferrite core (integer and half turns)."""
@@ -283,6 +284,10 @@ def _curve(antenna, freq_hz: float, values_ohm, figure_db) -> tuple[tuple[float,
     return rs, tuple(float(x) for x in figure_db), tuple(float(10 * np.log10(max(fb(r), 1e-30))) for r in rs)
 
 
+FIGURE_FORMAT = "{:.1f}"
+"""A resistor's figure (RDF or front-to-back) [dB] as printed (through number_text: never "-0.0")."""
+
+
 def bound_text(answer: dict, figure: str) -> str | None:
     """What an answer (:meth:`TerminationAnswer.to_dict`) at an end of the range searched says in place of "best
     at": the range, the end where ``figure`` (its name) is highest and how much more it gives beyond (where known),
@@ -298,7 +303,8 @@ def bound_text(answer: dict, figure: str) -> str | None:
     rises = f", and still rises {way} it: {beyond:.2f} dB more at {factor * end:.0f} ohm" if beyond >= 0.005 else ""
     return (
         f"no optimum of {figure} within the {lo:.0f}-{hi:.0f} ohm searched (it is highest at the range's {which} "
-        f"end, {end:.0f} ohm, {answer['figure_db']:.1f} dB{rises}), so that end is given, not an optimum"
+        f"end, {end:.0f} ohm, {number_text(answer['figure_db'], FIGURE_FORMAT)} dB{rises}), so that end is given, "
+        "not an optimum"
     )
 
 
