@@ -110,13 +110,15 @@ def _plan_checks(r):
         best = r.antenna(tr.best)
         if best.snr_gain_median_db[i] > served.snr_gain_median_db[i] + 1e-9:
             assert p.not_best[i]["best"] == tr.best and p.not_best[i]["served_by"] == served.name
-            assert p.not_best[i]["reason"] in ("max_antennas", "adds_little")
+            assert p.not_best[i]["reason"] in ("max_antennas", "adds_little", "alternative")
         else:
             assert i not in p.not_best
     # No candidate left out would add as much as MIN_ADDED_DB (when no limit binds).
     if p.max_antennas is None and p.antennas:
+        # (an alternative to a member, standing in its place, cannot be added: the plan builds one of the two)
+        beside = {b for pair in p.alternatives for b in pair if set(pair) & set(p.antennas)}
         for c in r.candidates:
-            if c.name not in p.antennas:
+            if c.name not in p.antennas and c.name not in beside:
                 assert _worth(r, [*members, c]) - p.gain_db < planmod.MIN_ADDED_DB
 
 

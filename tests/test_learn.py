@@ -116,7 +116,7 @@ def _warnings_beside_local(output: str) -> list[str]:
     return [
         ln
         for ln in output.lower().splitlines()
-        if "warning" in ln and "is most of its noise" not in ln and "is the safer build" not in ln
+        if ln.startswith("warning") and "is most of its noise" not in ln and "is the safer build" not in ln
     ]
 
 
