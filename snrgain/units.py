@@ -372,6 +372,18 @@ def length_unit_of(data) -> str:
     return "ft" if ft > m else "m"
 
 
+def length_unit_written(value) -> str | None:
+    """The unit the lengths under ``value`` are written in ("ft" where feet outnumber metres, "m" where metres do or
+    as many), None where it holds no length with a unit (a readings file's ``distance``: its message quotes its
+    limits in that unit).
+
+    >>> length_unit_written("200000 ft"), length_unit_written(["50 m", "60 ft"]), length_unit_written(12)
+    ('ft', 'm', None)
+    """
+    ft, m = _length_votes(value)
+    return None if ft == m == 0 else "ft" if ft > m else "m"
+
+
 def per_m(unit: str) -> float:
     """How many of ``unit`` make a metre."""
     if unit not in LENGTH_UNITS_SHOWN:

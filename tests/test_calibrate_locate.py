@@ -597,3 +597,176 @@ def test_the_side_of_an_ambiguous_bearing_can_be_given(tmp_path):
     assert float(written["bearing"]) == pytest.approx(other, abs=0.5)
     bad = runner.invoke(cli, ["locate", str(rf), "--side", "400"])
     assert bad.exit_code == 2 and "--side" in bad.output
+
+
+# -- locate's distances, sides and failure messages (hostile-input findings) ----------------------------------------
+
+BASE = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # no files beside it: its copy runs anywhere
+FLAG = (
+    '[antenna.flag]\nfamily = "terminated-loop"\nwidth = "6 m"\nloop_height = "3 m"\nheight = "1.5 m"\n'
+    'termination = "900 ohm"\n'
+)
+FLAG_READINGS = "".join(
+    f'\n[[reading]]\nantenna = "flag"\nbearing = {b}\nlevel = "{lv} dBm"\n'
+    for b, lv in ((248, -116), (68, -128), (158, -121))
+)
+
+
+def _example(extra="", flag=False):
+    """The example readings file with ``extra`` keys at its top (and a flag read three ways, which tells the side)."""
+    from snrgain.tools.locate import EXAMPLE
+
+    text = EXAMPLE.replace('ground = "moist loam"\n', f'ground = "moist loam"\n{extra}\n', 1)
+    return text.replace('height = "18 m"\n', f'height = "18 m"\n\n{FLAG}', 1) + FLAG_READINGS if flag else text
+
+
+def test_a_distance_list_gives_one_distance_per_source(tmp_path):
+    # Three distances with one source were taken without a word and two ignored; one distance stood for two sources,
+    # one of them known only to +- 39 deg.  A distance places one source: the list must give one per source.
+    rf = tmp_path / "r.toml"
+    out = tmp_path / "o.toml"
+    copy = ["--scenario", str(BASE), "--write", str(out)]
+    for distance, sources, said in (
+        ('["50 m", "60 m", "70 m"]', 1, "3 distances for 1 source (--sources 1)"),
+        ('"50 m"', 2, "one distance for 2 sources (--sources 2)"),
+        ('["50 m"]', 2, "one distance for 2 sources (--sources 2)"),
+        ('["50 m", "60 m"]', 3, "2 distances for 3 sources (--sources 3)"),
+    ):
+        rf.write_text(_example(f"at = [10, 20]\ndistance = {distance}"))
+        for args in ([], copy):
+            res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", str(sources), *args])
+            assert res.exit_code == 2, res.output
+            assert f"r.toml: distance: {said}" in res.stderr and "Traceback" not in res.output
+            assert not out.exists()
+    # One per source: each written at its own distance, and the output says which each got.
+    rf.write_text(_example('at = [10, 20]\ndistance = ["50 m", "150 ft"]', flag=True))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", *copy])
+    assert res.exit_code == 0, res.output
+    written = [s for s in tomllib.loads(out.read_text())["noise"]["local"] if s["name"].startswith("located")]
+    assert [s["name"] for s in written] == ["located source 1", "located source 2"]
+    for k, (src, dist) in enumerate(zip(written, (50.0, 45.72))):
+        e, n = (float(v.split()[0]) for v in src["position"])
+        assert np.hypot(e - 10, n - 20) == pytest.approx(dist, abs=0.1)
+        (line,) = [ln for ln in res.stdout.splitlines() if ln.strip().startswith(f"source {k + 1} as")]
+        assert f"the file's distance {k + 1}" in line and f"'located source {k + 1}'" in line
+    assert "45.72 m from the readings (the file's distance 2" in res.stdout
+    out.unlink()  # a file that writes its distances in feet is answered in feet
+    rf.write_text(_example('at = [10, 20]\ndistance = ["164 ft", "150 ft"]', flag=True))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", *copy])
+    assert "150 ft (45.7 m) from the readings (the file's distance 2" in res.stdout
+    assert "150 ft (45.7 m) from the readings (the readings file's distance 2)" in out.read_text()
+    out.unlink()
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", *copy, "--format", "json"])
+    assert [p["distance_m"] for p in json.loads(res.stdout)["written_sources"]] == pytest.approx([164 * 0.3048, 45.72])
+
+
+def test_the_written_sources_need_one_distance_each():
+    from dataclasses import replace
+
+    from snrgain.tools import locate as loc
+
+    base = loc.LocateResult(True, "fit converged", [], 50.0, 0.5, np.zeros(0), np.zeros(0))
+    two = replace(base, sources=[loc.FittedSource(100.0, 5.0, 5.0, 80.0, False)] * 2)
+    with pytest.raises(LocateError, match="1 distance"):
+        loc.with_sources("", two, at_m=(0.0, 0.0), distances_m=(50.0,))
+    text = loc.with_sources("", two, at_m=(0.0, 0.0), distances_m=(50.0, 80.0))
+    assert [float(s["position"][0].split()[0]) for s in tomllib.loads(text)["noise"]["local"]] == pytest.approx(
+        [50 * np.sin(np.radians(100)), 80 * np.sin(np.radians(100))], abs=0.05
+    )
+
+
+def test_side_against_a_fit_that_tells_the_side_is_said_not_silently_dropped(tmp_path):
+    # With a flag read three ways the fit tells the side itself: --side was dropped without a word.
+    rf = tmp_path / "r.toml"
+    rf.write_text(_example(flag=True))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"])
+    (s,) = json.loads(res.stdout)["sources"]
+    assert not s["ambiguous_180"]
+    against = (s["bearing_deg"] + 180.0) % 360.0
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--side", f"{against:.0f}"])
+    assert res.exit_code == 0, res.output
+    (note,) = [ln for ln in res.stdout.splitlines() if "--side" in ln]
+    assert note.startswith("  note: source 1: the fit tells its side itself")
+    assert f"--side {against:.0f} was not used for it" in note and "lies 180 deg from --side" in note
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--side", f"{s['bearing_deg']:.0f}", "--format", "json"])
+    (note,) = json.loads(res.stdout)["notes"]
+    assert "was not used for it" in note and "check the side" not in note
+
+
+def test_a_side_square_to_both_bearings_is_refused(tmp_path):
+    # --side 90 deg from both bearings that fit chose one without a word.
+    rf = tmp_path / "r.toml"
+    rf.write_text(_example())
+    (s,) = json.loads(CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"]).stdout)["sources"]
+    assert s["ambiguous_180"]
+    for square in ((s["bearing_deg"] + 90.0) % 360.0, (s["bearing_deg"] + 270.0) % 360.0):
+        res = CliRunner().invoke(cli, ["locate", str(rf), "--side", f"{square:.0f}"])
+        assert res.exit_code == 2, res.output
+        assert f"--side: {square:.0f} deg lies 90 deg from both bearings" in res.output
+        assert "tells neither side" in res.output and "Traceback" not in res.output
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--side", f"{(s['bearing_deg'] + 92.0) % 360.0:.0f}"])
+    assert res.exit_code == 0, res.output
+
+
+def test_the_copy_says_why_an_ambiguous_bearing_took_its_side():
+    # The comment always credited the replaced source, also where --side chose or no source was replaced.
+    from dataclasses import replace
+
+    from snrgain.tools import locate as loc
+
+    base = loc.LocateResult(True, "fit converged", [], 50.0, 0.5, np.zeros(0), np.zeros(0))
+    res = replace(base, sources=[loc.FittedSource(100.0, 5.0, 10.0, 80.0, True)])
+
+    def comment(text="", **kw):
+        out = loc.with_sources(text, res, name="garage", **kw)
+        (line,) = [ln for ln in out.splitlines() if "fitted by snrgain locate" in ln]
+        return line
+
+    assert comment(side_deg=300).endswith(
+        "the readings fit 100 deg as well: this side is the one within 90 deg of --side 300"
+    )
+    garage = '[[noise.local]]\nname = "garage"\nbearing = 68\n'
+    assert comment(garage, side_deg=300).endswith("this side is the one within 90 deg of --side 300")
+    assert comment(garage).endswith(
+        "the readings fit 280 deg as well: this side is that of the source of this name it replaces, at 68 deg"
+    )
+    assert comment().endswith("this side is the fit's own: the scenario has no source of this name to take a side from")
+    assert comment('[[noise.local]]\nname = "garage"\nposition = [5, 5]\n').endswith(
+        "this side is the fit's own: the source of this name it replaces gives no bearing to take a side from"
+    )
+    assert "square to both" in comment('[[noise.local]]\nname = "garage"\nbearing = 190\n')
+    sure = replace(base, sources=[loc.FittedSource(100.0, 5.0, 10.0, 80.0, False)])
+    assert "as well" not in loc.with_sources(garage, sure, name="garage", side_deg=300)
+
+
+def test_a_bearing_uncertain_past_half_a_turn_is_said_to_be_no_bearing(tmp_path):
+    # Two sources fitted to one loop's readings: the message quoted "the bearing's uncertainty is 261447396 deg".
+    import re
+
+    rf = tmp_path / "r.toml"
+    rf.write_text(_example())
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2"])
+    assert res.exit_code == 1, res.output
+    assert "no bearing at all" in res.stderr and "no bearing at all" in res.stdout
+    assert not re.search(r"\d{4,} deg", res.output), res.output
+    data = json.loads(CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", "--format", "json"]).stdout)
+    assert max(s["bearing_sigma_deg"] for s in data["sources"]) > 180.0  # the case itself: past half a turn
+    assert "past 180 deg: no bearing at all" in data["message"]
+
+
+def test_a_readings_distance_out_of_range_is_quoted_in_its_own_unit(tmp_path):
+    rf = tmp_path / "r.toml"
+    rf.write_text(_example('at = [0, 0]\ndistance = "200000 ft"'))
+    res = CliRunner().invoke(cli, ["locate", str(rf)])
+    assert res.exit_code == 2, res.output
+    assert 'distance: must be > 0 ft (0 m) and <= 164042 ft (50000 m); got "200000 ft"' in res.stderr
+    rf.write_text(_example('at = [0, 0]\ndistance = "200 km"'))
+    assert "<= 50000 m; got" in CliRunner().invoke(cli, ["locate", str(rf)]).stderr
+
+
+def test_the_side_help_says_where_its_default_comes_from():
+    # The help gave the default from --scenario, which is refused without --write ("go together").
+    out = CliRunner().invoke(cli, ["locate", "--help"], terminal_width=200).stdout
+    assert "in the scenario copied (--scenario with --write)" in " ".join(out.split())
+    res = CliRunner().invoke(cli, ["locate", "r.toml", "--scenario", str(BASE)])
+    assert res.exit_code == 2 and "--scenario and --write go together" in res.output

@@ -49,8 +49,10 @@ from snrgain.cli.options import (
     metavar="DEG",
     help="Where a bearing cannot be told from its opposite (180 deg ambiguity): a rough bearing [deg] of the side "
     "the source lies on (from a walk with a portable receiver, or where the suspect stands); the one of the two "
-    "within 90 deg of it is printed, plotted and written.  Default: the side of a [[noise.local]] of the same name "
-    "in --scenario, else the side the fit happened to find.",
+    "within 90 deg of it is printed, plotted and written (one square to both, 90 deg from each, is refused).  "
+    "Default: the side of a [[noise.local]] of the same name in the scenario copied (--scenario with --write), "
+    "else the side the fit happened to find.  A source whose readings tell its side (directional antennas) keeps "
+    "it, and the output says --side was not used for it.",
 )
 @scenario_copy_options("the fitted sources added as [[noise.local]]")
 @handle_errors
@@ -63,7 +65,8 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     cannot tell front from back) and the level as Fa.  A reading the fit misses by more than its
     uncertainty (default 2 dB) is named.  A diffuse background the sources outweigh in every reading is said
     to be not determined; one far quieter than any site is said too.  With at = [east, north] (where the
-    readings were taken) and distance in the file, the source is written to the scenario at its place.  A fit
+    readings were taken) and distance in the file (one per source, in the order the fit numbers them), each source
+    is written to the scenario at its place, and the output says which distance each got.  A fit
     that finds no direction is reported with its cause and exits 1, writing no file (no plot, no copy).  See
     --example for the file.
     """
@@ -84,6 +87,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     check_output(plot, overwrite=overwrite)
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     data = loc.load_readings(Path(readings))
+    loc.check_distances(data, sources, readings)
     try:
         with progress(None, f"locate: fitting {sources} source(s) to {len(data.readings)} reading(s)"):
             res = loc.locate(
@@ -97,7 +101,10 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     except loc.LocateError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     if side is not None:
-        res = loc.on_side(res, side)
+        try:
+            res = loc.on_side(res, side)
+        except loc.LocateError as exc:
+            raise click.BadParameter(str(exc), param_hint="--side") from None
     elif scenario is not None and res.ok:  # printed and plotted on the side it is written on
         res = loc.sided(res, read_scenario_text(scenario), at_m=data.at_m, name=name)
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
@@ -109,10 +116,13 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
             out["plot"] = plot
         if scenario is not None:
             out["written"] = write_to
+            out["written_sources"] = [
+                vars(p) for p in loc.placements(res, at_m=data.at_m, distances_m=data.distances_m, name=name)
+            ]
     if fmt == "json":
         emit_json(out)
     else:
-        click.echo("\n".join(_lines(res, out, side)))
+        click.echo("\n".join(_lines(res, out, side, data.length_unit)))
     if not res.ok:
         fail("the fit failed (" + res.message.split(";")[0] + "); no file written", EXIT_FAILURE)
 
@@ -125,7 +135,13 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side
     text = None
     if scenario is not None:
         text = loc.with_sources(
-            read_scenario_text(scenario), res, at_m=data.at_m, distances_m=data.distances_m, name=name, side_deg=side
+            read_scenario_text(scenario),
+            res,
+            at_m=data.at_m,
+            distances_m=data.distances_m,
+            name=name,
+            side_deg=side,
+            length_unit=data.length_unit,
         )
     created = None
     if plot is not None:
@@ -143,11 +159,22 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side
         raise
 
 
-def _lines(res, out, side=None) -> list[str]:
+def _lines(res, out, side=None, length_unit="m") -> list[str]:
+    from snrgain.tools.locate import NO_BEARING_SIGMA_DEG, side_note
+    from snrgain.units import length_said
+
     lines = [res.message if res.ok else "FIT FAILED: " + res.message]
     for i, s in enumerate(res.sources):
-        amb = f" (or {(s.bearing_deg + 180) % 360:.0f} deg)" if s.ambiguous_180 else ""
-        sig = f"+- {s.bearing_sigma_deg:.0f} deg" if math.isfinite(s.bearing_sigma_deg) else "deg, uncertainty unknown"
+        nowhere = math.isfinite(s.bearing_sigma_deg) and s.bearing_sigma_deg > NO_BEARING_SIGMA_DEG
+        amb = f" (or {(s.bearing_deg + 180) % 360:.0f} deg)" if s.ambiguous_180 and not nowhere else ""
+        if nowhere:
+            sig = f"deg with an uncertainty beyond {NO_BEARING_SIGMA_DEG:g} deg (no bearing at all)"
+        else:
+            sig = (
+                f"+- {s.bearing_sigma_deg:.0f} deg"
+                if math.isfinite(s.bearing_sigma_deg)
+                else "deg, uncertainty unknown"
+            )
         lines.append(
             f"  source {i + 1}: bearing {s.bearing_deg:.0f} {sig}{amb}, "
             f"elevation {s.elevation_deg:.0f} deg, Fa {s.fa_db:.1f} dB on P.372's reference monopole"
@@ -165,17 +192,27 @@ def _lines(res, out, side=None) -> list[str]:
             f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm{flag}"
         )
     lines += [f"  note: {n}" for n in res.notes]
-    if side is None:
+    if side is None and res.ok:
         for i, s in enumerate(res.sources):
             if s.ambiguous_180:
                 other = (s.bearing_deg + 180) % 360
                 lines.append(
-                    f"  note: source {i + 1}'s readings fit {s.bearing_deg:.0f} and {other:.0f} deg alike; the side "
-                    f"printed is the fit's (or the scenario's source of that name); where it lies toward {other:.0f} "
-                    f"deg (a walk with a portable receiver tells), give --side {other:.0f}"
+                    f"  note: source {i + 1}: {side_note(s)}; where it lies toward {other:.0f} deg (a walk with a "
+                    f"portable receiver tells), give --side {other:.0f}"
                 )
     if "plot" in out:
         lines.append(f"  wrote {out['plot']}")
     if "written" in out:
         lines.append(f"  wrote {out['written']}")
+        for i, p in enumerate(out["written_sources"]):
+            if p["distance_m"] is None:
+                how = "by its bearing (the readings file gives no distance)"
+            else:
+                e, n = p["position_m"]
+                how = (
+                    f"{length_said(p['distance_m'], length_unit)} from the readings (the file's distance {i + 1}; the "
+                    f"bearing's uncertainty is +- {length_said(p['across_m'], length_unit, 0)} across it there), at "
+                    f"[{e:.1f} m, {n:.1f} m]"
+                )
+            lines.append(f"    source {i + 1} as {p['name']!r}: bearing {p['bearing_deg']:.0f} deg, {how}")
     return lines

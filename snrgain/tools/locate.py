@@ -32,8 +32,12 @@ called converged without saying so.  Where the file says where the readings
 were taken (``at = [east, north]`` on the site plan) and how far the source
 is (``distance``, e.g. from a walk with a portable receiver), the source is
 written to a scenario as a placed one (``position``, with its Fa
-``measured_at`` the reading point); otherwise by its bearing.  A source of
-the same name already in the scenario is replaced, not doubled.
+``measured_at`` the reading point); otherwise by its bearing.  A distance
+places one source: with several (``--sources``), ``distance`` is a list of
+one per source, in the order the fit numbers them (a run without the copy
+shows it; the fit's starts are fixed, so the order is the same each run),
+and a list of another length is refused, not cut short or stretched.  A
+source of the same name already in the scenario is replaced, not doubled.
 """
 
 from __future__ import annotations
@@ -51,6 +55,11 @@ from snrgain.records import record
 from snrgain.tools.readings import read_toml
 
 MAX_BEARING_SIGMA_DEG = 45.0
+NO_BEARING_SIGMA_DEG = 180.0
+"""A bearing's uncertainty beyond this is no bearing at all: every direction lies within it."""
+SQUARE_TOLERANCE_DEG = 0.5
+"""A rough side (--side, a replaced source's bearing) this close to square to a bearing (90 deg from it and from the
+opposite one, as the bearings are printed, in whole degrees) tells neither side."""
 BACKGROUND_MIN_SHARE = 0.01
 """Below this share of every fitted reading the diffuse background is not determined by the readings: its share is
 the derivative of a reading's dB by the background's dB, and at 1 % (20 dB under every reading) taking it away
@@ -70,6 +79,9 @@ EXAMPLE = """\
 frequency = "1.83 MHz"
 bandwidth = "500 Hz"
 ground = "moist loam"
+# at = [10, 20]              # where the readings were taken on the site plan [east, north], and how far
+# distance = "50 m"          # the source is: with both, --write places it; one distance per source
+                             # (--sources 2: distance = ["50 m", "120 m"], in the order the fit numbers them)
 
 [antenna.loop]               # a small loop turned by hand between readings
 family = "small-loop"
@@ -122,6 +134,8 @@ class NoiseReadings:
     """Where the readings were taken on the site plan [m east, m north], if the file says."""
     distances_m: tuple[float, ...] | None = None
     """How far each source is from there [m], if the file says."""
+    length_unit: str = "m"
+    """The unit the file writes its distances in ("m" or "ft"): its messages and the output quote them in it."""
 
 
 def load_readings(path: str | Path) -> NoiseReadings:
@@ -136,6 +150,7 @@ def load_readings(path: str | Path) -> NoiseReadings:
     from snrgain.errors import ReadingsError
     from snrgain.fields import Bearing, GroundField, PlanPoint, PowerDbm, StrictModel, decibels, quantity
     from snrgain.tools.readings import validate
+    from snrgain.units import length_unit_written, lengths_said_in
 
     class ReadingEntry(StrictModel):
         antenna: str
@@ -155,8 +170,11 @@ def load_readings(path: str | Path) -> NoiseReadings:
 
     data = read_toml(path)
     problems, readings = [], []
+    # Lengths are quoted in the unit the file writes them in: its place and distance, else its other lengths.
+    unit = length_unit_written([data.get("at"), data.get("distance")]) or length_unit_written(data) or "m"
     try:
-        rf = validate(ReadingsFile, data, path)
+        with lengths_said_in(unit):
+            rf = validate(ReadingsFile, data, path)
     except ReadingsError as exc:  # go on to the cross-checks: every problem at once
         problems, rf = list(exc.problems), None
     tables = data.get("antenna") if isinstance(data.get("antenna"), dict) else {}
@@ -194,7 +212,8 @@ def load_readings(path: str | Path) -> NoiseReadings:
         if r.bearing is not None:
             spec["bearing"] = data["reading"][i]["bearing"]
         try:
-            ant = build(spec, f"antenna.{r.antenna}", freq_hz=rf.frequency)
+            with lengths_said_in(length_unit_written(data) or "m"):
+                ant = build(spec, f"antenna.{r.antenna}", freq_hz=rf.frequency)
         except SpecError as exc:
             problems.extend(exc.problems)
             continue
@@ -206,7 +225,30 @@ def load_readings(path: str | Path) -> NoiseReadings:
     if problems:
         raise ReadingsError(str(path), sorted(set(problems), key=problems.index))
     distances = None if rf.distance is None else tuple(rf.distance if isinstance(rf.distance, list) else [rf.distance])
-    return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances)
+    return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances, unit)
+
+
+def check_distances(data: NoiseReadings, n_sources: int, path) -> None:
+    """ReadingsError naming the file's ``distance`` unless it gives one distance per source fitted (``n_sources``,
+    --sources): a longer list's extras were ignored, and one distance was taken for every source."""
+    from snrgain.errors import ReadingsError
+
+    k = 0 if data.distances_m is None else len(data.distances_m)
+    if k in (0, n_sources):
+        return
+    many = f"{n_sources} sources" if n_sources > 1 else "1 source"
+    if k == 1:
+        msg = (
+            f"one distance for {many} (--sources {n_sources}): a distance places one source; give a list of "
+            f"{n_sources}, one per source in the order the fit numbers them (a run without --write shows it), the "
+            "same distance again where two lie equally far, or none, to write them by bearing"
+        )
+    else:
+        msg = (
+            f"{k} distances for {many} (--sources {n_sources}): give one per source fitted, in the order the fit "
+            "numbers them" + (f", or fit {k} (--sources {k})" if k <= 3 else "")
+        )
+    raise ReadingsError(str(path), [("distance", msg)])
 
 
 class LocateError(ValueError):
@@ -231,6 +273,9 @@ class FittedSource:
     fa_db: float
     """Level on P.372's reference monopole [dB above kT0b]."""
     ambiguous_180: bool
+    side_from: str = ""
+    """Where the readings fit the opposite bearing as well (``ambiguous_180``), why this side was taken (the end of
+    "this side is ..."); empty where they tell the side."""
 
 
 @record(frozen=False)
@@ -380,6 +425,7 @@ def locate(
                 float(np.degrees(el)),
                 float(p372.temperature_to_fa_db(t_ref)),
                 symmetric,
+                FIT_OWN_SIDE if symmetric else "",
             )
         )
     ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
@@ -401,11 +447,7 @@ def locate(
         if not ok_cov:
             why = "the fit's uncertainties cannot be worked out (singular: the readings do not tell the unknowns apart)"
         else:
-            worst = max(f.bearing_sigma_deg for f in fitted)
-            why = (
-                f"the bearing's uncertainty is {worst:.0f} deg, over {MAX_BEARING_SIGMA_DEG:g} deg (the readings "
-                f"scatter {rms:.1f} dB rms about the best fit)"
-            )
+            why = _wide_bearings(fitted) + f" (the readings scatter {rms:.1f} dB rms about the best fit)"
         msg = (
             f"the readings do not constrain a direction: {why}; take readings on a loop rotated in steps, or on "
             "directional antennas pointing different ways"
@@ -445,46 +487,124 @@ def locate(
     )
 
 
+FIT_OWN_SIDE = "the fit's own"
+
+
+def sigma_said(sigma_deg: float) -> str:
+    """A bearing's uncertainty as said: "66 deg", or beyond :data:`NO_BEARING_SIGMA_DEG` no bearing at all."""
+    if sigma_deg > NO_BEARING_SIGMA_DEG:
+        return f"past {NO_BEARING_SIGMA_DEG:g} deg: no bearing at all"
+    return f"{sigma_deg:.0f} deg"
+
+
+def _wide_bearings(fitted: list[FittedSource]) -> str:
+    """Which bearings' uncertainties pass :data:`MAX_BEARING_SIGMA_DEG`, and by how much, in words (no semicolon:
+    the command's last line quotes the message up to its first)."""
+    if len(fitted) == 1:
+        sig = fitted[0].bearing_sigma_deg
+        if sig > NO_BEARING_SIGMA_DEG:
+            return f"the bearing's uncertainty passes {NO_BEARING_SIGMA_DEG:g} deg: the readings give no bearing at all"
+        return f"the bearing's uncertainty is {sig:.0f} deg, over {MAX_BEARING_SIGMA_DEG:g} deg"
+    wide = [
+        f"source {k + 1} ({sigma_said(f.bearing_sigma_deg)})"
+        for k, f in enumerate(fitted)
+        if f.bearing_sigma_deg > MAX_BEARING_SIGMA_DEG
+    ]
+    return f"the bearing's uncertainty is over {MAX_BEARING_SIGMA_DEG:g} deg for " + " and ".join(wide)
+
+
 def source_names(res: LocateResult, name: str = "located source") -> list[str]:
     """The names the fitted sources are written under: ``name``, or ``name 1``, ``name 2``... for several."""
     return [name] if len(res.sources) == 1 else [f"{name} {i + 1}" for i in range(len(res.sources))]
 
 
-def scenario_blocks(res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> str:
+@record
+class Placement:
+    """How a fitted source is written into a scenario copy."""
+
+    name: str
+    bearing_deg: float
+    distance_m: float | None = None
+    """How far from the reading point it is placed [m]: the readings file's distance of its number; None where the
+    file gives none (or no reading point), and the source is written by its bearing."""
+    position_m: tuple[float, float] | None = None
+    """Where that puts it on the site plan [m east, m north]."""
+    across_m: float | None = None
+    """How far its bearing's uncertainty moves it across the bearing at that distance [m] (the arc)."""
+
+
+def placements(res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source") -> list[Placement]:
+    """How each fitted source is written: placed at ``distances_m[i]`` from ``at_m`` on its bearing (the i-th
+    distance for the i-th source: one per source, else LocateError), else by its bearing."""
+    names = source_names(res, name)
+    if at_m is None or distances_m is None:
+        return [Placement(label, s.bearing_deg) for s, label in zip(res.sources, names)]
+    if len(distances_m) != len(res.sources):
+        raise LocateError(
+            f"{len(distances_m)} distance(s) for {len(res.sources)} fitted source(s): a distance places one source; "
+            "give one per source"
+        )
+    out = []
+    for s, label, dist in zip(res.sources, names, distances_m):
+        b = np.radians(s.bearing_deg)
+        where = (float(at_m[0] + dist * np.sin(b)), float(at_m[1] + dist * np.cos(b)))
+        across = float(dist * np.radians(min(s.bearing_sigma_deg, NO_BEARING_SIGMA_DEG)))
+        out.append(Placement(label, s.bearing_deg, float(dist), where, across))
+    return out
+
+
+def side_note(s: FittedSource) -> str:
+    """For a bearing the readings cannot tell from its opposite: the opposite one, and why this side was taken."""
+    other = (s.bearing_deg + 180.0) % 360.0
+    return f"the readings fit {other:.0f} deg as well: this side is {s.side_from or FIT_OWN_SIDE}"
+
+
+def scenario_blocks(
+    res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source", length_unit: str = "m"
+) -> str:
     """The fitted sources as [[noise.local]] tables: placed (position, Fa measured at ``at_m``) where the reading
-    point and a distance are known, else by bearing."""
+    point and a distance per source are known (:func:`placements`), else by bearing.  ``length_unit``: the unit
+    the readings file wrote its distances in, for the comments."""
     from snrgain.tools.tomltext import toml_string
+    from snrgain.units import length_said
 
     blocks = []
-    for i, (s, label) in enumerate(zip(res.sources, source_names(res, name))):
-        note = (
-            f" (or {(s.bearing_deg + 180) % 360:.0f} deg: the readings cannot tell; this side is the one of the source "
-            "of this name it replaces, where there was one)"
-            if s.ambiguous_180
-            else ""
-        )
+    where = placements(res, at_m=at_m, distances_m=distances_m, name=name)
+    for i, (s, p) in enumerate(zip(res.sources, where)):
+        note = f"; {side_note(s)}" if s.ambiguous_180 else ""
         head = f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
-        dist = None if distances_m is None else distances_m[min(i, len(distances_m) - 1)]
-        if at_m is not None and dist is not None:
-            b = np.radians(s.bearing_deg)
-            e, n = at_m[0] + dist * np.sin(b), at_m[1] + dist * np.cos(b)
+        if p.position_m is not None:
+            e, n = p.position_m
             blocks.append(
-                head + f"name = {toml_string(label)}\n"
-                f'position = ["{e:.1f} m", "{n:.1f} m"]   # {dist:g} m from the readings\n'
+                head + f"name = {toml_string(p.name)}\n"
+                f'position = ["{e:.1f} m", "{n:.1f} m"]   # {length_said(p.distance_m, length_unit)} from the '
+                f"readings (the readings file's distance {i + 1}), +- {length_said(p.across_m, length_unit, 0)} across "
+                "its bearing\n"
                 f'fa = {s.fa_db:.1f}\nmeasured_at = ["{at_m[0]:.1f} m", "{at_m[1]:.1f} m"]\n'
             )
         else:
             blocks.append(
-                head + f"name = {toml_string(label)}\n"
+                head + f"name = {toml_string(p.name)}\n"
                 f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
             )
     return "".join(blocks)
 
 
+def _off(a_deg: float, b_deg: float) -> float:
+    """The angle between two bearings [deg], 0 to 180."""
+    return abs((a_deg - b_deg + 180.0) % 360.0 - 180.0)
+
+
+def _square(off_deg: float) -> bool:
+    """A side ``off_deg`` from a bearing that tells neither it nor its opposite (:data:`SQUARE_TOLERANCE_DEG`)."""
+    return abs(off_deg - 90.0) <= SQUARE_TOLERANCE_DEG
+
+
 def sided(res: LocateResult, text: str, *, at_m=None, name: str = "located source") -> LocateResult:
     """``res`` with each source whose readings cannot tell its bearing from the opposite one (``ambiguous_180``) on
     the side of the [[noise.local]] of the same name it replaces in the scenario ``text`` (its bearing, or its
-    position seen from the reading point ``at_m``), where that one says a side; the others as fitted."""
+    position seen from the reading point ``at_m``), where that one says a side; the others as fitted.  Each
+    ambiguous source's ``side_from`` says which it was."""
     import tomllib
     from dataclasses import replace
 
@@ -505,29 +625,71 @@ def sided(res: LocateResult, text: str, *, at_m=None, name: str = "located sourc
                 bearing = np.degrees(np.arctan2(e - at_m[0], n - at_m[1]))
         except (TypeError, ValueError):
             bearing = None  # a table the scenario's check refuses anyway: no side to take from it
-        off = None if bearing is None else abs((s.bearing_deg - bearing + 180.0) % 360.0 - 180.0)
-        if s.ambiguous_180 and off is not None and off > 90.0:
-            s = replace(s, bearing_deg=(s.bearing_deg + 180.0) % 360.0)
-        sources.append(s)
+        if not s.ambiguous_180:
+            sources.append(s)
+            continue
+        if was is None:
+            why = f"{FIT_OWN_SIDE}: the scenario has no source of this name to take a side from"
+        elif bearing is None:
+            why = f"{FIT_OWN_SIDE}: the source of this name it replaces gives no bearing to take a side from"
+        elif _square(_off(s.bearing_deg, bearing)):
+            why = (
+                f"{FIT_OWN_SIDE}: the source of this name it replaces, at {bearing % 360:.0f} deg, lies square to both"
+            )
+        else:
+            if _off(s.bearing_deg, bearing) > 90.0:
+                s = replace(s, bearing_deg=(s.bearing_deg + 180.0) % 360.0)
+            why = f"that of the source of this name it replaces, at {bearing % 360:.0f} deg"
+        sources.append(replace(s, side_from=why))
     return replace(res, sources=sources)
 
 
 def on_side(res: LocateResult, side_deg: float) -> LocateResult:
     """``res`` with each source whose readings cannot tell its bearing from the opposite one (``ambiguous_180``) on
-    the side of ``side_deg`` (a rough bearing the user knows it lies toward): the one of the two within 90 deg of it."""
+    the side of ``side_deg`` (a rough bearing the user knows it lies toward): the one of the two within 90 deg of it.
+    A converged fit's other sources get a note that the fit tells their side itself and ``side_deg`` was not used
+    for them; a ``side_deg`` square to both bearings of an ambiguous one (90 deg from each) is refused (LocateError:
+    it tells neither side)."""
     from dataclasses import replace
 
-    sources = []
-    for s in res.sources:
-        off = abs((s.bearing_deg - side_deg + 180.0) % 360.0 - 180.0)
-        if s.ambiguous_180 and off > 90.0:
-            s = replace(s, bearing_deg=(s.bearing_deg + 180.0) % 360.0)
+    sources, notes = [], list(res.notes)
+    for i, s in enumerate(res.sources):
+        off = _off(s.bearing_deg, side_deg)
+        if not s.ambiguous_180:
+            if res.ok:
+                notes.append(
+                    f"source {i + 1}: the fit tells its side itself (bearing {s.bearing_deg:.0f} deg: its readings "
+                    f"tell front from back), so --side {side_deg:g} was not used for it"
+                    + (
+                        f"; it lies {off:.0f} deg from --side: check the side and the readings' bearings"
+                        if off > 90
+                        else ""
+                    )
+                )
+        elif _square(off):
+            if res.ok:  # a failed fit's bearings are no result: nothing to choose between
+                raise LocateError(
+                    f"{side_deg:g} deg lies 90 deg from both bearings that fit source {i + 1} ({s.bearing_deg:.0f} and "
+                    f"{(s.bearing_deg + 180.0) % 360.0:.0f} deg), so it tells neither side; give a bearing nearer the "
+                    "side the source lies on"
+                )
+        else:
+            if off > 90.0:
+                s = replace(s, bearing_deg=(s.bearing_deg + 180.0) % 360.0)
+            s = replace(s, side_from=f"the one within 90 deg of --side {side_deg:g}")
         sources.append(s)
-    return replace(res, sources=sources)
+    return replace(res, sources=sources, notes=notes)
 
 
 def with_sources(
-    text: str, res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source", side_deg=None
+    text: str,
+    res: LocateResult,
+    *,
+    at_m=None,
+    distances_m=None,
+    name: str = "located source",
+    side_deg=None,
+    length_unit: str = "m",
 ) -> str:
     """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
     table removed), the others kept; refuses a failed fit.  An ambiguous bearing (180 deg) is written on the side
@@ -540,7 +702,8 @@ def with_sources(
         raise LocateError("the fit failed, so no sources were written: " + res.message)
     res = on_side(res, side_deg) if side_deg is not None else sided(res, text, at_m=at_m, name=name)
     kept = remove_tables(text, "[[noise.local]]", set(source_names(res, name)))
-    out = kept.rstrip("\n") + "\n" + scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name)
+    blocks = scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name, length_unit=length_unit)
+    out = kept.rstrip("\n") + "\n" + blocks
     tomllib.loads(out)  # still one valid file
     return out
 
