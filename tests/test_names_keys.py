@@ -189,3 +189,148 @@ def test_a_misspelt_feed_line_is_also_offered_beside_the_chains_feedline(tmp_pat
     assert code == 2, err
     assert "'feedline' belongs in this candidate's chain table, not in the candidate itself" in err, err
     assert "(or did you mean 'feed_line'?)" in err
+
+
+# -- 3. --reference lists only what it takes, and says at once that a switched antenna cannot be it --------------
+
+WHIP = '\n[[candidate]]\nname = "whip"\nfamily = "vertical"\nheight = "5 m"\nposition = [60, -30]\n'
+
+
+@pytest.mark.parametrize(
+    "name, what",
+    [
+        ("flag pair", "'flag pair' is the switched antenna 'flag pair' (2 states: 'flag pair west (295 deg)', "),
+        ("flag pair west", "'flag pair west' is one state of the switched antenna 'flag pair'"),
+        ("flag pair west (295 deg)", "'flag pair west (295 deg)' is one state of the switched antenna 'flag pair'"),
+        ("nobody", "no antenna named 'nobody'"),
+    ],
+)
+def test_the_reference_option_offers_only_the_antennas_it_takes(name, what):
+    # 'flag pair' was "no antenna named 'flag pair'; the scenario has ... 'flag pair west (295 deg)', ...", and that
+    # name was then refused as a state of a switched antenna.
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import load
+
+    with pytest.raises(ScenarioError) as err:
+        load(SITE + FLAG + WHIP, reference=name)
+    said = dict(err.value.problems)["--reference"]
+    assert said.startswith(what), said
+    assert said.endswith("--reference takes 'whip' (or 'short vertical', the file's reference)"), said
+    if name != "nobody":
+        assert "a switched antenna cannot be the reference" in said
+
+
+def test_rank_refuses_a_switched_reference_at_once(tmp_path):
+    code, err = _run("rank", _write(tmp_path, SITE + FLAG + WHIP), "--reference", "flag pair east")
+    assert code == 2 and "'flag pair east' is one state of the switched antenna 'flag pair'" in err, err
+    assert "(295 deg)'" not in err.split("takes", 1)[1]
+
+
+# -- 4. noise-readings says the scenario's own problems before the readings' names --------------------------------
+
+
+def test_noise_readings_says_the_scenarios_problem_before_a_readings_name(tmp_path):
+    # A refused 'directions' left the flag without states, and the reading on 'flag pair NE' was said to name no
+    # antenna of the scenario, where verify and rank said the directions' problem.
+    bad = FLAG.replace(
+        'directions = [{ name = "west", bearing = "295 deg" }, { name = "east", bearing = "115 deg" }]',
+        'directions = ["40 deg", "50 deg"]',
+    )
+    readings = _write(tmp_path, _reading("flag pair NE"), "r.toml")
+    code, err = _run("noise-readings", _write(tmp_path, SITE + bad), readings)
+    assert code == 2, err
+    assert 'candidate 1 ("flag pair").directions: ["40 deg", "50 deg"]: a terminated-loop is one loop' in err, err
+    assert "is not in the scenario" not in err and "reading[1]" not in err
+
+
+def _reading(antenna: str) -> str:
+    return (
+        f'[[reading]]\ntime = 2026-12-02T00:20:00Z\nantenna = "{antenna}"\nfrequency = "1.83 MHz"\n'
+        'bandwidth = "2.4 kHz"\nantenna_db = -101.0\nload_db = -110.0\n'
+    )
+
+
+# -- 5. a name typed in Unicode's decomposed form names the antenna that prints the same ---------------------------
+
+COMPOSED, DECOMPOSED = "w\u00ebst", "we\u0308st"  # "wëst" with one character, and as "e" and a combining mark
+
+
+def test_a_decomposed_name_names_the_state_that_prints_the_same(tmp_path):
+    flag = FLAG.replace('name = "west"', f'name = "{COMPOSED}"')
+    site = _write(tmp_path, SITE + flag)
+    readings = _write(tmp_path, _reading(f"flag pair {DECOMPOSED}"), "r.toml")
+    res = CliRunner().invoke(cli, ["noise-readings", str(site), str(readings), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert '"antenna": "flag pair w\\u00ebst (295 deg)"' in res.stdout
+
+
+def test_names_are_matched_in_composed_form_wherever_a_user_names_an_antenna(tmp_path):
+    import tomllib
+
+    from snrgain.scenario import connected, load
+    from snrgain.tools.calibrate import into_table
+    from snrgain.tools.sweep import parse_vary
+
+    cafe, cafe_typed = "caf\u00e9 whip", "cafe\u0301 whip"
+    text = SITE + FLAG.replace('name = "west"', f'name = "{COMPOSED}"') + WHIP.replace("whip", cafe) + BEV
+    data = tomllib.loads(text)
+    assert connected(data, f"flag pair {DECOMPOSED}").name == f"flag pair {COMPOSED} (295 deg)"
+    assert connected(data, f"flag pair {DECOMPOSED} (295 deg)").name == f"flag pair {COMPOSED} (295 deg)"
+    assert connected(data, cafe_typed).name == cafe
+    assert load(text, reference=cafe_typed).reference.name == cafe  # --reference
+    assert into_table(data, "bev") == "bev" and into_table(data, f"flag pair {DECOMPOSED}") == "flag pair"
+    assert parse_vary(f"{cafe_typed}: height = 4 m, 6 m").table == cafe  # sweep --vary
+    # read_on, in the file, typed decomposed
+    local = f'\n[[noise.local]]\nname = "fence"\nbearing = 100\nlevel = "S5"\nread_on = "{cafe_typed}"\n'
+    sc = load(text + local)
+    assert sc.noise.local[0].read_on == cafe
+
+
+def test_verify_takes_a_decomposed_name(tmp_path):
+    from snrgain.tools import verify as vf
+
+    a, b = vf.synthesise(site_lat=50.0, site_lon=10.0, targets=[(45, 3.0)], hours=1, stations_per_target=4, seed=3)
+    (tmp_path / "a.txt").write_text(a)
+    (tmp_path / "b.txt").write_text(b)
+    site = _write(tmp_path, SITE + FLAG.replace('name = "west"', f'name = "{COMPOSED}"'))
+    logs = ["--log-a", tmp_path / "a.txt", "--log-b", tmp_path / "b.txt"]
+    code, err = _run("verify", site, "--a", f"flag pair {DECOMPOSED}", "--b", "short vertical", *logs)
+    assert code == 0, err
+
+
+# -- 6. a candidate named like a state's shorter name ---------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    "extra, where",
+    [
+        (WHIP.replace('"whip"', '"flag pair west"'), 'candidate 2 ("flag pair west").name'),
+        (BEV.replace('"bev"', '"flag pair east"'), 'candidate 2 ("flag pair east").name'),
+    ],
+)
+def test_a_candidate_named_like_a_states_shorter_name_is_an_input_error(tmp_path, extra, where):
+    # It passed check, and noise-readings, verify and calibrate --into then took the plain candidate for the name.
+    code, err = _run("check", _write(tmp_path, SITE + FLAG + extra))
+    assert code == 2, err
+    name = where.split('"')[1]
+    state = name.replace("west", "west (295 deg)").replace("east", "east (115 deg)")
+    assert (
+        f"{where}: {name!r} is also the shorter name of {state!r}, a state of the switched antenna 'flag pair'" in err
+    )
+
+
+def test_a_reference_named_like_a_states_shorter_name_is_an_input_error_and_the_tools_refuse_the_name(tmp_path):
+    import tomllib
+
+    from snrgain.scenario import connected
+    from snrgain.scenario.connected import TwoAntennas
+
+    text = SITE.replace('name = "short vertical"', 'name = "flag pair west"') + FLAG
+    code, err = _run("check", _write(tmp_path, text))
+    assert (
+        code == 2 and "reference.name: 'flag pair west' is also the shorter name of 'flag pair west (295 deg)'" in err
+    )
+    # the tools that read the tables before loading them refuse the name too, naming both antennas
+    with pytest.raises(TwoAntennas, match=r"names both the antenna 'flag pair west' and 'flag pair west \(295 deg\)'"):
+        connected(tomllib.loads(text), "flag pair west")
+    assert connected(tomllib.loads(text), "flag pair west (295 deg)").group == "flag pair"

@@ -17,6 +17,7 @@ from snrgain.physics.ground import C_M_PER_S
 from snrgain.records import record
 from snrgain.unknown_keys import AntennaTable
 
+from .connected import short_name_clashes
 from .feedline import FEED_LINE_KEY, FeedLineSection, take_feed_line
 from .place import PlaceSection
 from .receiver import ChainSection
@@ -253,6 +254,7 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
                 if problem:
                     out.problems.append((f"{where}.place", problem))
                 out.placeable[spec["name"] if len(states) > 1 else first.name] = own_place  # a switched one: its name
+    out.problems.extend(short_name_clashes(out.antennas, out.wheres))
     out.problems.extend(attach_combinations(out.antennas, out.wheres, _unbuilt(data, freq_hz, out)))
     return out
 
