@@ -67,6 +67,8 @@ nside_option = click.option(
 def composed_name(ctx, param, value):
     """A name given on the command line in Unicode's composed form (snrgain.fields.nfc), as the scenario's names are:
     an accent typed as a separate mark names the same antenna."""
+    if value is None:
+        return None
     from snrgain.fields import nfc
 
     return nfc(value)
