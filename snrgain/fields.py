@@ -16,6 +16,7 @@ from typing import Annotated, Any, Literal
 
 import numpy as np
 from pydantic import (
+    AfterValidator,
     BaseModel,
     BeforeValidator,
     ConfigDict,
@@ -382,6 +383,18 @@ def check_name(value):
     return value
 
 
+def nfc(text):
+    """A name as it is compared with another: in Unicode's composed form (NFC), so that two names that print alike
+    match (an accent typed as a separate mark, as some keyboards and shells give it); anything but text as it is.
+
+    >>> nfc("we\u0308st") == "w\u00ebst"
+    True
+    """
+    import unicodedata
+
+    return unicodedata.normalize("NFC", text) if isinstance(text, str) else text
+
+
 def sky_component_name(name: str) -> bool:
     """Whether ``name`` is one the sky's own noise components are labelled by (snrgain.sky.noise: "galactic",
     "man-made (...)", "atmospheric (...)"): a local source may not take it (levels are kept by name)."""
@@ -390,3 +403,6 @@ def sky_component_name(name: str) -> bool:
 
 Name = Annotated[str, BeforeValidator(check_name)]
 """A name of a site, antenna, target, local source, keep-out area or structure (:func:`check_name`)."""
+NameRef = Annotated[str, AfterValidator(nfc)]
+"""A name that names another table's (``read_on``, ``[site] transmitting``, a combination's ``antennas``): kept in
+Unicode's composed form (:func:`nfc`), as the names it is matched against are."""

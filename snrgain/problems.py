@@ -231,7 +231,7 @@ def not_finite(value) -> str | None:
     return "NaN (not a number) is not allowed" if math.isnan(value) else "an infinite number is not allowed"
 
 
-def _message(err: dict, title: str | None = None) -> str:
+def _message(err: dict, title: str | None = None, antenna=None) -> str:
     typ = err.get("type", "")
     ctx = err.get("ctx", {}) or {}
     got = f"; got {toml_repr(err['input'])}" if "input" in err else ""
@@ -240,7 +240,7 @@ def _message(err: dict, title: str | None = None) -> str:
     if typ == "extra_forbidden":
         from snrgain.unknown_keys import unknown_key_message
 
-        return unknown_key_message(title, tuple(err.get("loc") or ()))
+        return unknown_key_message(title, tuple(err.get("loc") or ()), antenna)
     if typ == "missing":
         return "required key is missing"
     if typ in ("value_error", "assertion_error"):
@@ -267,15 +267,16 @@ def _message(err: dict, title: str | None = None) -> str:
     return f"{err.get('msg', 'invalid')}{got}"
 
 
-def pydantic_problems(exc, prefix: str = "", data=None) -> list[tuple[str, str]]:
+def pydantic_problems(exc, prefix: str = "", data=None, antenna=None) -> list[tuple[str, str]]:
     """(field path, message) pairs from a pydantic ValidationError: one per problem, in the project's words, list
-    items counted from 1 and named (``candidate 5 ("BOG toward Europe")``); ``data`` is the input validated."""
+    items counted from 1 and named (``candidate 5 ("BOG toward Europe")``); ``data`` is the input validated;
+    ``antenna``: what an antenna table takes besides its family's keys (snrgain.unknown_keys.AntennaTable)."""
     errs = [_Err(i, _steps(e.get("loc", ()), data, e.get("type", "")), e) for i, e in enumerate(exc.errors())]
     notes: dict[int, list[str]] = {}
     kept = sorted(_select(errs, 0, notes), key=lambda e: e.order)
     out = []
     for e in kept:
-        msg = _message(e.err, getattr(exc, "title", None))
+        msg = _message(e.err, getattr(exc, "title", None), antenna)
         for note in notes.get(e.order, []):
             head, sep, tail = msg.partition("; got ")
             msg = f"{head} ({note}){sep}{tail}"

@@ -242,42 +242,48 @@ def item_label(key: str, index: int, item) -> str:
     return f"{key} {index + 1}" + (f' ("{name}")' if isinstance(name, str) and name else "")
 
 
-def pydantic_problems(exc: ValidationError, prefix: str = "", data=None) -> list[tuple[str, str]]:
+def pydantic_problems(exc: ValidationError, prefix: str = "", data=None, antenna=None) -> list[tuple[str, str]]:
     """(field path, message) pairs from a pydantic error, one per problem (:func:`snrgain.problems.pydantic_problems`);
-    ``data`` is the input validated (to name list items)."""
+    ``data`` is the input validated (to name list items); ``antenna``: what an antenna table takes besides its
+    family's keys (snrgain.unknown_keys.AntennaTable)."""
     from snrgain.problems import pydantic_problems as problems
 
-    return problems(exc, prefix, data)
+    return problems(exc, prefix, data, antenna)
 
 
-def validate_spec(spec: dict, prefix: str = "", *, si: bool = False) -> AntennaParams:
+def validate_spec(spec: dict, prefix: str = "", *, si: bool = False, antenna=None) -> AntennaParams:
     """Validate an antenna spec against its family's parameter model.
 
-    With ``si``, bare numbers in quantity fields are SI values (m, Hz, rad, ohm, s).  Raises
-    :class:`SpecError` with every problem found, paths prefixed by ``prefix``.
+    With ``si``, bare numbers in quantity fields are SI values (m, Hz, rad, ohm, s).  ``antenna``: what the table
+    takes besides its family's keys, for the message of an unknown key (snrgain.unknown_keys.AntennaTable).
+    Raises :class:`SpecError` with every problem found, paths prefixed by ``prefix``.
     """
     where = (prefix + ".") if prefix else ""
     if not isinstance(spec, dict):
         raise SpecError([(prefix, f"an antenna must be a table of keys, got {toml_repr(spec)}")])
     family = spec.get("family")
     if family is None:
+        from snrgain.unknown_keys import stray_keys
+
         valid = ", ".join(repr(k) for k in FAMILIES)
-        raise SpecError([(f"{where}family", f"required key is missing; choose one of {valid}")])
+        stray = [(f"{where}{k}", m) for k, m in stray_keys(spec, antenna)]  # "familly" beside the missing family
+        raise SpecError([(f"{where}family", f"required key is missing; choose one of {valid}"), *stray])
     if not isinstance(family, str) or family not in FAMILIES:
         valid = ", ".join(repr(k) for k in FAMILIES)
         raise SpecError([(f"{where}family", f"unknown antenna family {toml_repr(family)}; choose one of {valid}")])
     try:
         return FAMILIES[family].params.model_validate(spec, context=SI_CONTEXT if si else None)
     except ValidationError as exc:
-        raise SpecError(pydantic_problems(exc, prefix, spec)) from None
+        raise SpecError(pydantic_problems(exc, prefix, spec, antenna)) from None
 
 
-def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None, si: bool = False) -> Antenna:
-    """Validate and build an antenna, checking it at ``freq_hz`` if given (``si``: see :func:`validate_spec`).
+def build(spec: dict, prefix: str = "", *, freq_hz: float | None = None, si: bool = False, antenna=None) -> Antenna:
+    """Validate and build an antenna, checking it at ``freq_hz`` if given (``si``, ``antenna``: see
+    :func:`validate_spec`).
 
     Raises :class:`SpecError` naming every bad field, paths prefixed by ``prefix``.
     """
-    params = validate_spec(spec, prefix, si=si)
+    params = validate_spec(spec, prefix, si=si, antenna=antenna)
     try:
         ant = FAMILIES[params.family].build(params)
         if freq_hz is not None:

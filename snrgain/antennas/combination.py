@@ -30,7 +30,7 @@ from pydantic import Field
 from snrgain.antennas.array import AUTO_ELEVATION_RAD, PhaseSense, placement_problems
 from snrgain.antennas.array import Array as _Array
 from snrgain.antennas.base import Antenna, AntennaParams, SpecError, register
-from snrgain.fields import Bearing, Decibels, Elevation, StrictModel
+from snrgain.fields import Bearing, Decibels, Elevation, NameRef, StrictModel
 
 SETTING_ERRORS = ((np.radians(10.0), 1.0),)
 """Setting errors whose SNR cost is reported: (phase [rad], amplitude [dB]), every sign combination."""
@@ -46,7 +46,7 @@ class GivenSetting(StrictModel):
 
 class CombinationParams(AntennaParams):
     family: Literal["combination"]
-    antennas: list[str] = Field(min_length=2, max_length=2)
+    antennas: list[NameRef] = Field(min_length=2, max_length=2)
     """The names of two antennas of the scenario ("reference" names the reference)."""
     setting: Literal["auto"] | GivenSetting = "auto"
     bearing: Bearing = 0.0

@@ -10,6 +10,7 @@ import numpy as np
 from snrgain.cli.options import (
     FiniteRange,
     check_output,
+    composed_name,
     emit_json,
     handle_errors,
     progress,
@@ -42,6 +43,7 @@ from snrgain.cli.options import (
     "into",
     default=None,
     metavar="NAME",
+    callback=composed_name,
     help="With --scenario: write the measured velocity factor, attenuation and Z0 into the candidate NAME "
     "(the readings nearest the scenario's frequency) instead of the fitted ground into [site]; only that "
     "antenna changes.",

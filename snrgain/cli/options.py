@@ -63,11 +63,23 @@ nside_option = click.option(
     help="HEALPix resolution of the sky (overrides the scenario; default 32, about 1.8 deg).",
 )
 
+
+def composed_name(ctx, param, value):
+    """A name given on the command line in Unicode's composed form (snrgain.fields.nfc), as the scenario's names are:
+    an accent typed as a separate mark names the same antenna."""
+    if value is None:
+        return None
+    from snrgain.fields import nfc
+
+    return nfc(value)
+
+
 reference_option = click.option(
     "--reference",
     "reference",
     default=None,
     metavar="NAME",
+    callback=composed_name,
     help="Rank against this antenna of the scenario instead of its [reference] (the file's reference then stands "
     "among the candidates); local levels stay read on the antenna the file says (read_on, default the file's "
     "reference), so the noise does not change.",

@@ -9,6 +9,7 @@ import click
 from snrgain.cli.options import (
     FiniteRange,
     check_output,
+    composed_name,
     emit_json,
     handle_errors,
     overwrite_option,
@@ -20,8 +21,22 @@ from snrgain.cli.options import (
 
 @click.command("verify")
 @click.argument("scenario", type=click.Path(path_type=str), required=False)
-@click.option("--a", "antenna_a", metavar="NAME", default=None, help="The scenario's antenna that log A was heard on.")
-@click.option("--b", "antenna_b", metavar="NAME", default=None, help="The scenario's antenna that log B was heard on.")
+@click.option(
+    "--a",
+    "antenna_a",
+    metavar="NAME",
+    default=None,
+    callback=composed_name,
+    help="The scenario's antenna that log A was heard on.",
+)
+@click.option(
+    "--b",
+    "antenna_b",
+    metavar="NAME",
+    default=None,
+    callback=composed_name,
+    help="The scenario's antenna that log B was heard on.",
+)
 @click.option("--log-a", type=click.Path(dir_okay=False, path_type=str), default=None, help="Decodes on antenna A.")
 @click.option("--log-b", type=click.Path(dir_okay=False, path_type=str), default=None, help="Decodes on antenna B.")
 @click.option(

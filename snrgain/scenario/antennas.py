@@ -8,62 +8,30 @@ from dataclasses import field
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-from pydantic import Field, ValidationError, model_validator
+from pydantic import ValidationError
 
 from snrgain.antennas import FAMILIES, Antenna, SpecError
 from snrgain.antennas.base import build as build_antenna
 from snrgain.antennas.base import item_label, pydantic_problems
-from snrgain.constants import placeable_families
-from snrgain.fields import Bearing, StrictModel, quantity
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.records import record
-from snrgain.units import length_said
+from snrgain.unknown_keys import AntennaTable
 
-from .feedline import take_feed_line
+from .connected import short_name_clashes
+from .feedline import FEED_LINE_KEY, FeedLineSection, take_feed_line
+from .place import PlaceSection
 from .receiver import ChainSection
 from .site import raw_ground
-from .switched import expand_directions, far_end
+from .switched import CANDIDATE_KEYS, expand_directions, far_end
 
 
-class PlaceSection(StrictModel):
-    """What ``snrgain layout`` may change of a candidate: its position (within the lot), bearing and length (ranges)."""
-
-    bearing: list[Bearing] | None = Field(default=None, min_length=2, max_length=2)
-    """[from, to] compass bearings, clockwise (e.g. ["20 deg", "70 deg"])."""
-    length: list[quantity("length", ge=1.0, le=3000.0)] | None = Field(default=None, min_length=2, max_length=2)
-    """[shortest, longest] wire length [m]."""
-
-    @model_validator(mode="after")
-    def _ranges(self):
-        if self.length is not None and self.length[0] > self.length[1]:
-            raise ValueError(f"length: the range runs backwards: {' > '.join(map(length_said, self.length))}")
-        if self.bearing is not None:
-            a, b = (float(np.degrees(x)) % 360.0 for x in self.bearing)
-            span = (b - a) % 360.0
-            if span > 180.0:  # clockwise from the first: ["60 deg", "30 deg"] ran 330 deg through north
-                raise ValueError(
-                    f"bearing: from {a:g} deg clockwise to {b:g} deg spans {span:g} deg, past north and round; "
-                    f"write [{b:g}, {a:g}] for the {360.0 - span:g} deg between them (layout turns an antenna within "
-                    "half a turn: its bearing is its targets')"
-                )
-            if span == 0.0 and self.bearing[0] != self.bearing[1]:  # ["0 deg", "360 deg"]: one bearing, not a turn
-                raise ValueError(
-                    f"bearing: {np.degrees(self.bearing[0]):g} and {np.degrees(self.bearing[1]):g} deg are one "
-                    "bearing; give a range of at most half a turn clockwise, or leave bearing out to keep the one "
-                    "written"
-                )
-        return self
-
-    def problem_for(self, antenna) -> str | None:
-        """Why this antenna cannot be placed as asked, or None."""
-        if not antenna.placeable:  # one feed point, a bearing, and for wires a length (declared by the family)
-            return f"snrgain layout places {', '.join(placeable_families())}; not {antenna.family!r}"
-        if self.length is not None and not hasattr(antenna, "length_m"):
-            return f"a {antenna.family} has no length to vary"
-        if self.bearing is not None and not hasattr(antenna.params, "bearing"):
-            return f"a {antenna.family} has no bearing to vary"
-        return None
+def table_keys(where: str) -> AntennaTable:
+    """What the antenna table at ``where`` takes besides its family's keys (read before its family validates the
+    rest): the reference its own ``chain``; a candidate ``place``, ``chain``, ``feed_line`` and ``directions``."""
+    if where == "reference":
+        return AntennaTable("reference", (("chain", ChainSection),))
+    held = (("place", PlaceSection), ("chain", ChainSection), (FEED_LINE_KEY, FeedLineSection))
+    return AntennaTable("candidate", (*held, *((k, None) for k in CANDIDATE_KEYS)))
 
 
 def inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
@@ -85,7 +53,8 @@ def inject_defaults(spec: dict, *, site_ground, base_dir: Path | None) -> dict:
 def antenna_from_table(spec: dict, where: str, *, site_ground, base_dir: Path | None, freq_hz: float) -> Antenna:
     """Build one antenna table as :func:`load` does (the site's ground filled in, pattern files found relative to
     the scenario); raises SpecError naming ``where``."""
-    return build_antenna(inject_defaults(spec, site_ground=site_ground, base_dir=base_dir), where, freq_hz=freq_hz)
+    table = inject_defaults(spec, site_ground=site_ground, base_dir=base_dir)
+    return build_antenna(table, where, freq_hz=freq_hz, antenna=table_keys(where))
 
 
 def attach_combinations(antennas: list[Antenna], wheres: list[str], failed=frozenset()) -> list[tuple[str, str]]:
@@ -262,7 +231,7 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
                 )
                 if info.get("reverse_of") is not None and first is not None:  # the same wire, fed at its far end
                     first, table = reversed_wire(out, first, table, info["reverse_of"])
-                ant = build_antenna(table, where, freq_hz=freq_hz)
+                ant = build_antenna(table, where, freq_hz=freq_hz, antenna=table_keys(where))
             except SpecError as exc:
                 out.problems.extend(exc.problems)
                 break
@@ -285,6 +254,7 @@ def build_antennas(data, freq_hz: float | None, base_dir: Path | None) -> Built:
                 if problem:
                     out.problems.append((f"{where}.place", problem))
                 out.placeable[spec["name"] if len(states) > 1 else first.name] = own_place  # a switched one: its name
+    out.problems.extend(short_name_clashes(out.antennas, out.wheres))
     out.problems.extend(attach_combinations(out.antennas, out.wheres, _unbuilt(data, freq_hz, out)))
     return out
 

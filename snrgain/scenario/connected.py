@@ -4,7 +4,10 @@ A switched candidate (``directions``: :mod:`snrgain.scenario.switched`) is one a
 ``"<name> <state>"`` as rank prints it, e.g. "Beverage NE-SW NE (45 deg)"; what was connected is one of them.  A
 state is named by that name or, where no other state of the antenna is named so, by the antenna's name and the
 state's label without its bearing ("Beverage NE-SW NE"; a named state's own name: "flag pair front").  The switched
-antenna's own name names none of its states: it is refused, its states listed.
+antenna's own name names none of its states: it is refused, its states listed.  A shorter name that is also another
+antenna's name names two antennas: loading refuses the scenario (:func:`short_name_clashes`), and a name is refused
+here too.  Names are compared in Unicode's composed form (snrgain.fields.nfc): "wëst" typed with a separate accent is
+the state written "wëst".
 
 The tools that measure after building (``noise-readings``, ``verify``, ``calibrate --into``) read the scenario's
 tables before loading them (they run a copy cut down to the antennas they need), so the names are worked out from the
@@ -15,9 +18,10 @@ from __future__ import annotations
 
 import re
 
+from snrgain.fields import nfc
 from snrgain.records import record
 
-from .switched import expand_directions
+from .switched import expand_directions, switched_state
 
 REFERENCE = "reference"
 """The reference's other name, wherever an antenna is named."""
@@ -34,6 +38,10 @@ class Connected:
     """The antenna as the results name it: a state's name, a candidate's, the reference's, or "reference"."""
     group: str | None = None
     """The switched antenna it is a state of (its table's name), else None."""
+
+
+class TwoAntennas(ValueError):
+    """A name that names two antennas: a candidate (or the reference) and a state by its shorter name."""
 
 
 def short_label(label: str) -> str:
@@ -72,25 +80,37 @@ def antenna_names(data: dict) -> list[str]:
 def connected(data: dict, name: str) -> Connected:
     """The antenna ``name`` names in the scenario's tables ``data`` (the module's rules; a whole name wins over a
     state's shorter one).  Raises ValueError saying what it names instead: nothing (the names it could be), a switched
-    antenna (its states), several states."""
+    antenna (its states), several states, an antenna and a state."""
     ref = data.get("reference") if isinstance(data.get("reference"), dict) else {}
     ref_name = str(ref.get("name", REFERENCE))
-    if name in (REFERENCE, ref_name):
-        return Connected(ref_name, name)
+    name_c = nfc(name)
     switched = state_names(data)
+    short = [
+        (s, g) for g, states in switched.items() for s, label in states if nfc(f"{g} {short_label(label)}") == name_c
+    ]
     cands = data.get("candidate") if isinstance(data.get("candidate"), list) else []
-    if name in [c.get("name") for c in cands if isinstance(c, dict) and c.get("name") not in switched]:
-        return Connected(name, name)
-    whole = {s: group for group, states in switched.items() for s, _ in states}
-    if name in whole:
-        return Connected(whole[name], name, whole[name])
-    if name in switched:
-        full = [s for s, _ in switched[name]]
+    plain = [c.get("name") for c in cands if isinstance(c, dict) and c.get("name") not in switched]
+    found = next((n for n in [ref_name, *plain] if isinstance(n, str) and nfc(n) == name_c), None)
+    if found is not None and short and name_c != REFERENCE:
+        raise TwoAntennas(
+            f"{name!r} names both the antenna {found!r} and {short[0][0]!r}, a state of the switched antenna "
+            f"{short[0][1]!r} (by its shorter name): give one of them another name in the scenario"
+        )
+    if name_c == REFERENCE or found == ref_name:
+        return Connected(ref_name, ref_name if found == ref_name else REFERENCE)
+    if found is not None:
+        return Connected(found, found)
+    whole = {nfc(s): (s, group) for group, states in switched.items() for s, _ in states}
+    if name_c in whole:
+        s, group = whole[name_c]
+        return Connected(group, s, group)
+    group = next((g for g in switched if nfc(g) == name_c), None)
+    if group is not None:
+        full = [s for s, _ in switched[group]]
         raise ValueError(
             f"{name!r} is a switched antenna of {len(full)} states ({', '.join(repr(s) for s in full)}): name the "
             f"state that was switched in, e.g. {full[0]!r}"
         )
-    short = [(s, g) for g, states in switched.items() for s, label in states if f"{g} {short_label(label)}" == name]
     if len(short) > 1:
         raise ValueError(
             f"{name!r} names {len(short)} states ({', '.join(repr(s) for s, _ in short)}): give the state's whole name"
@@ -98,3 +118,32 @@ def connected(data: dict, name: str) -> Connected:
     if short:
         return Connected(short[0][1], short[0][0], short[0][1])
     raise ValueError(f"antenna {name!r} is not in the scenario; its antennas are: {', '.join(antenna_names(data))}")
+
+
+def short_name_clashes(antennas, wheres) -> list[tuple[str, str]]:
+    """(path, message) for each antenna (the reference, a candidate, a switched antenna's own name) whose name is
+    also a state's shorter name (the module's rules): one name for two antennas, which the tools that measure could
+    not tell apart."""
+    shorts: dict[str, tuple[str, str]] = {}
+    for ant in antennas:
+        s = switched_state(ant)
+        if s is not None:
+            shorts.setdefault(nfc(f"{s.group} {short_label(s.state)}"), (ant.name, s.group))
+    out, said = [], set()
+    for ant, where in zip(antennas, wheres):
+        s = switched_state(ant)
+        name = ant.name if s is None else s.group
+        clash = shorts.get(nfc(name))
+        if clash is None or name in said:
+            continue
+        said.add(name)
+        state, group = clash
+        out.append(
+            (
+                f"{where}.name",
+                f"{name!r} is also the shorter name of {state!r}, a state of the switched antenna {group!r} (noise "
+                "readings, verify and calibrate take a state by its antenna's name and its label without the "
+                "bearing), so the name would stand for two antennas: give this one or that state another name",
+            )
+        )
+    return out

@@ -30,6 +30,7 @@ from .model import Scenario, ScenarioModel, model_problems
 from .noise import noise_settings
 from .p372dir import find_p372_dir
 from .receiver import chain_from_section, resolve_receiver
+from .reference import choose_reference
 from .site import Site, plan_from_latlon
 from .strong import resolve_stations, stage_limits
 from .structures import clear_of_scatterers, transmitting_vertical
@@ -83,47 +84,6 @@ def load(
             raise ScenarioError(label, problems)
         sc = assemble(label, model, built, resolved, nside, file_reference, length_unit, transmitting)
         return replace(sc, feed_lines=feed_lines) if feed_lines else sc
-
-
-def choose_reference(built: Built, name: str) -> list[tuple[str, str]]:
-    """Make the antenna named ``name`` the reference (in place): it leaves the candidates, and the file's reference
-    takes its place among them, as if the two tables had been swapped in the file.  ``"reference"`` or the file's
-    reference's name keeps the file as it is.  Problems as (path, message)."""
-    names = [a.name for a in built.antennas]
-    if name == "reference" or name == names[0]:
-        return []
-    if name not in names:
-        return [("--reference", f"no antenna named {name!r}; the scenario has {', '.join(repr(n) for n in names)}")]
-    k = names.index(name)
-    ant = built.antennas[k]
-    if getattr(ant, "switched", None) is not None:  # a state of a switched antenna (scenario.antennas.SwitchedState)
-        return [
-            (
-                "--reference",
-                f"{name!r} is one state of the switched antenna {ant.switched.group!r}; rank against "
-                "an antenna that is not switched",
-            )
-        ]
-    if getattr(ant.params, "steering", None) == "auto" and getattr(ant.params, "auto_for", None) == "snr":
-        return [
-            (
-                "--reference",
-                f"{name!r} is steered for SNR (auto_for = 'snr'), which needs a reference to compare with; "
-                "a reference cannot be steered for SNR",
-            )
-        ]
-    for lst in (built.antennas, built.wheres, built.chains):
-        lst[0], lst[k] = lst[k], lst[0]
-    built.placeable.pop(name, None)  # the reference stands where it is
-    if built.feed_lines.pop(built.wheres[0], None) is not None:  # as the file's reference takes none
-        import warnings
-
-        warnings.warn(
-            f"--reference {name!r}: its feed_line is left out while it is the reference (the site's noise is read on "
-            "the reference as it stands; feed lines are scored on candidates)",
-            stacklevel=2,
-        )
-    return []
 
 
 def _after_antennas(model: ScenarioModel, built: Built, file_reference, length_unit: str):

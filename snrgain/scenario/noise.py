@@ -16,6 +16,7 @@ from snrgain.fields import (
     Latitude,
     Longitude,
     Name,
+    NameRef,
     PlanPoint,
     PowerDbm,
     StrictModel,
@@ -159,7 +160,7 @@ class LocalSource(StrictModel):
     elevation: Elevation = _SRC.elevation_rad
     spread: quantity("angle", ge=0.0, le=np.radians(30.0)) = _SRC.spread_rad
     level: PowerDbm | None = None
-    read_on: str | None = None
+    read_on: NameRef | None = None
     """The antenna ``level`` was read on, by name ("reference": the file's reference); default the file's
     reference, so that ranking against another reference (``rank --reference``) leaves the noise as it is."""
     fa: decibels(*FA_RANGE_DB) | None = None

@@ -4,7 +4,7 @@ what they do is computed by snrgain.model.scatter."""
 from __future__ import annotations
 
 from snrgain.constants import MIN_GAP_M
-from snrgain.fields import Name, PlanPoint, StrictModel, quantity
+from snrgain.fields import Name, PlanPoint, StrictModel, nfc, quantity
 from snrgain.units import length_said
 
 
@@ -43,6 +43,7 @@ def transmitting_vertical(given: str | None, built, file_reference) -> tuple[str
         return (ant.name if ant.resonant_tx else None), []
     if given.strip().lower() == "none":
         return None, []
+    given = nfc(given)  # as the antennas' names are (snrgain.fields.check_name)
     names = [a.name for a in built.antennas]
     if given not in names:
         return None, [

@@ -833,15 +833,20 @@ def into_table(data: dict, name: str) -> str:
     """The candidate's table ``--into`` names in the scenario's tables ``data``: a candidate by its name, a switched
     wire (``directions``) by its own name or by any state's (snrgain.scenario.connected: its states are one wire, so
     the line measured is every state's).  ValueError naming --into and the candidates otherwise."""
+    from snrgain.fields import nfc
     from snrgain.scenario import connected
+    from snrgain.scenario.connected import TwoAntennas
 
     cands = [c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)]
-    if name in cands:
-        return name
     try:
         table = connected(data, name)
+    except TwoAntennas as exc:  # a candidate's name that is also a state's shorter name
+        raise ValueError(f"--into: {exc}") from None
     except ValueError:
         table = None
+    own = next((c for c in cands if isinstance(c, str) and nfc(c) == nfc(name)), None)
+    if own is not None:  # a candidate, or a switched one by its own name
+        return own
     if table is None or table.group is None:  # none, or the reference: the line is written into a candidate
         raise ValueError(
             f"--into: the scenario has no candidate named {name!r}; its candidates are "

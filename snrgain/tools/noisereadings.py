@@ -499,11 +499,13 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
     named in errors."""
     from scipy.optimize import minimize_scalar
 
-    from snrgain.scenario import read_source
+    from snrgain.scenario import load, read_source
     from snrgain.tools import logs
     from snrgain.tools.learn import OFFSET_RANGE_DB, Z90
 
-    data, _, _ = read_source(Path(scenario_path))
+    data, scenario_label, base_dir = read_source(Path(scenario_path))
+    # the scenario's own problems first: a switched antenna whose directions are refused has no states to name
+    load(data, base_dir=base_dir, label=scenario_label, p372_dir=p372_dir)
     readings, _ = named(readings, data, label)  # a state as rank names it, however the reading wrote it
     env = data.get("noise", {}).get("man_made", {}).get("environment", "residential")
     before, _, freq, temps = temperatures(readings, scenario_path, p372_dir=p372_dir)

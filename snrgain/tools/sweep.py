@@ -36,6 +36,7 @@ from pathlib import Path
 import numpy as np
 
 from snrgain.errors import ScenarioError, SpecError
+from snrgain.fields import nfc
 from snrgain.records import record
 from snrgain.scenario.feedline import FEED_LINE_KEY
 
@@ -139,7 +140,7 @@ def parse_vary(text: str) -> Vary:
         raise VaryError(text, "write TABLE: KEY = VALUES, e.g. 'Beverage NE: length = 150 m to 350 m by 10 m'")
     table, rest = text.split(":", 1)
     key, values = rest.split("=", 1)
-    table, key, values = table.strip(), key.strip(), values.strip()
+    table, key, values = nfc(table.strip()), key.strip(), values.strip()  # a name as the scenario's are
     if not table or not key or not re.fullmatch(r"[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_][A-Za-z0-9_]*)*", key):
         raise VaryError(text, f"the table and key must be named, the key as word or word.word; got {key!r}")
     listed = (table, key) in LIST_KEYS
