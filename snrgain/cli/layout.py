@@ -46,7 +46,9 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     half a wavelength from it instead); its bearing and length stay in their ranges
     (fixed where none is given).  Each is scored by its nominal SNR gain over the reference toward the target
     nearest its bearing, with placed noise sources ([[noise.local]] position = [east, north]) heard where
-    it stands.  The search is a grid with a local refinement: the same file gives the same layout.
+    it stands and its feed_line, if it has one, run from there to its station entry (on the lot, 1 m at
+    least), as rank scores the written layout.  The search is a grid with a local refinement: the same
+    file gives the same layout.
 
     Before you build: keep wires clear of power lines, call the utilities' locating service before
     driving ground rods, and mark wires near the ground: they trip people and animals.
@@ -72,13 +74,8 @@ def layout(scenario, keep, fmt, write_to, plot, p372_dir, overwrite, band):
     with progress(None, "layout: placements") as bar:
         layouts = problem.search(keep=keep, progress=bar.update)
     out = lay.as_dict(layouts)
-    unscored = lay.unscored_feed_lines(data)
-    notes = [
-        f"{name}: its feed line is not in the layout's score (its run depends on where the antenna stands); "
-        "write the layout (--write) and rank it to see what the feed line costs there"
-        for name in unscored
-    ]
     best = layouts[0]
+    notes = [f"layout 1: {_feed_line_note(*cost)}" for cost in problem.feed_line_costs(best)]
     notes += [f"layout 1: {notice_text(n, sc.site.length_unit)}" for n in lay.placed_feed_line_notices(problem, best)]
     notes += [f"layout 1: {n}" for n in lay.range_end_notes(problem, best, sc.site.length_unit)]
     if notes:
@@ -138,6 +135,22 @@ def _print(layouts, sc, *, unit: str = "m") -> None:
         "Before you build: keep wires clear of power lines; call the utilities' locating service before driving "
         "ground rods; mark wires near the ground, they trip people and animals. Follow local codes."
     )
+
+
+def _feed_line_note(name: str, cost_db: float, target: str) -> str:
+    """What a placed candidate's feed line does to its score where the layout puts it (its SNR gain includes it)."""
+    from snrgain.model.feedline import COST_WARNING_DB
+
+    if cost_db <= -0.05:
+        what = (
+            f"adds {-cost_db:.1f} dB of SNR gain toward {target} there (its pickup partly cancels the antenna's: a "
+            "fragile gain, which another route or cable length can undo)"
+        )
+    else:
+        what = f"costs {max(cost_db, 0.0):.1f} dB of SNR gain toward {target} there"
+        if cost_db > COST_WARNING_DB:
+            what += " (rank --build of the written layout gives the choke that quiets it)"
+    return f"{name}: scored with its feed line, run from where it stands to its station entry; the line {what}"
 
 
 def _same_file(a, b) -> bool:

@@ -1437,11 +1437,12 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
     others = _others_ahead(sc, antennas, ground)
     keys = None  # _variant_keys, worked once for every source
     shares, out_powers = {}, {}
+    fed = frozenset(getattr(sc, "feed_lines", None) or ())  # their amplitudes kept for their feed lines
     for src in placed:
         have = powers.get(src.name) if powers is not None else None
         p = np.full(len(antennas), np.nan) if have is None else np.array(have, dtype=float)
-        _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
-        _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p)
+        _wire_powers(antennas, src, sc.freq_hz, ref_m, ground, p, fed)
+        _compact_powers(antennas, src, sc.freq_hz, ref_m, ground, p, fed)
         for kind, _ in dipoles(src):
             from snrgain.model import feedline  # its routes' field worked in the same call (it reads placed's)
 
@@ -1497,9 +1498,11 @@ def _others_ahead(sc, antennas, ground) -> list:
     return out if len(out) <= OTHERS_AHEAD else []
 
 
-def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray, fed=frozenset()) -> None:
     """Fill ``p`` (NaN where not known) for the same long wire standing at several places at once
-    (:func:`wire_feed_currents`): the powers :func:`received_power` gives each, in one array expression."""
+    (:func:`wire_feed_currents`): the powers :func:`received_power` gives each, in one array expression; the
+    amplitudes of those named in ``fed`` (the antennas with a feed line) kept as :func:`received_amplitudes` keeps
+    them (:func:`_keep_amplitudes`)."""
     from snrgain.antennas.longwire import port_response
 
     groups: dict[str, list[int]] = {}
@@ -1515,10 +1518,11 @@ def _wire_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarr
             i_f = wire_feed_currents(wire, src, freq_hz, feeds, ground, kind=kind)
             e = port_response(freq_hz, i_f, load_ohm=wire.receiver_load_ohm(freq_hz), elevation_rad=el)
             total += np.abs(e) ** 2
+            _keep_amplitudes([antennas[k] for k in ks], e, src, freq_hz, reference_m, ground, kind, fed)
         p[ks] = total
 
 
-def _compact_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray) -> None:
+def _compact_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.ndarray, fed=frozenset()) -> None:
     """Fill ``p`` (NaN where not known) for the same compact antenna standing at several places at once, read
     through its transmit currents (:func:`_through_currents`): its segments and currents are the same at every
     place, only the source's field at the shifted segments and its direction change, so the field at every
@@ -1538,8 +1542,22 @@ def _compact_powers(antennas, src, freq_hz: float, reference_m, ground, p: np.nd
         at = np.array([antenna_point(antennas[k], reference_m) for k in ks])
         total = np.zeros(len(ks))
         for kind, _ in dipoles(src):
-            total += np.abs(_through_currents_many(ant, src, freq_hz, at, ground, kind, segments)) ** 2
+            v = _through_currents_many(ant, src, freq_hz, at, ground, kind, segments)
+            total += np.abs(v) ** 2
+            _keep_amplitudes([antennas[k] for k in ks], v, src, freq_hz, reference_m, ground, kind, fed)
         p[ks] = total
+
+
+def _keep_amplitudes(antennas, amplitudes, src, freq_hz: float, reference_m, ground, kind: str, fed) -> None:
+    """Put the (vertical) amplitudes from one of a placed source's dipoles, worked for the antennas at once, in
+    :data:`_AMPLITUDES` for those of them named in ``fed`` (their feed lines add to them as phasors:
+    snrgain.model.feedline.prepare reads them there rather than working each antenna again, one place at a time)."""
+    if not fed:
+        return
+    tail = _amplitudes_tail(src, freq_hz, reference_m, ground, None, kind)
+    for a, v in zip(antennas, amplitudes):
+        if a.name in fed:
+            _AMPLITUDES.get((id(a), *tail), lambda a=a, v=v: (a, (complex(v), 0j)))
 
 
 def _through_currents_many(antenna, src, freq_hz: float, at, ground, kind: str, segments) -> np.ndarray:

@@ -117,6 +117,8 @@ INTERWINDING_F = 20e-12
 BURIED_DEPTH_M = 0.15
 """The depth of a buried feed line when none is given [m] (a spade's depth: common practice)."""
 ISOLATIONS = ("shared-ground", "transformer")
+LEAST_RUN_M = 1.0
+"""The shortest run a feed line may have, from the antenna to the station [m]: a shorter one is refused."""
 _LINES: dict = {}
 """Shield line constants already solved, by geometry, frequency and soil."""
 
@@ -152,9 +154,9 @@ class FeedLine:
             raise ValueError(f"choke must be > 0 ohm (leave it out for none); got {self.choke_ohm!r}")
         if not self.station_ground_ohm > 0:
             raise ValueError(f"station_ground must be > 0 ohm; got {self.station_ground_ohm!r}")
-        if not self.length_m >= 1.0:
+        if not self.length_m >= LEAST_RUN_M:
             raise ValueError(
-                f"a feed line runs at least {length_said(1.0)} from the antenna to the station; "
+                f"a feed line runs at least {length_said(LEAST_RUN_M)} from the antenna to the station; "
                 f"got {length_said(self.length_m)}"
             )
 

@@ -10,14 +10,20 @@ in ``[site] tx_state``, costs its RDF where it stands: snrgain.model.scatter),
 at least 10 m from any other wire and from the antennas that stay where written, the
 transmitting vertical among them (common practice: closer, wires couple; the vertical's
 computed cost is checked against NEC-2 from 10 m), with its bearing
-and length inside the ranges given (fixed where none is given).
+and length inside the ranges given (fixed where none is given), and its feed
+line's run, if it has one, on the lot and at least 1 m long
+(snrgain.physics.feedline.LEAST_RUN_M), as rank wants it of the written layout.
 
 Its worth is its nominal SNR gain over the reference toward the target
 nearest its bearing range's middle (the scenario's months and hours for that
 target, no spreads), with the placed noise sources heard where it stands
-(snrgain.model.placed).  Only the placed sources depend on the position, so each
-(bearing, length) pair costs one pattern and one set of sky temperatures,
-and every position after that only its pickup of the placed sources.
+(snrgain.model.placed) and its ``feed_line``, if it has one, run from where it
+stands to its station entry (snrgain.model.feedline: the shield's pickup of the
+sky and of the placed sources), as rank of the written layout scores it.  Only
+the placed sources and the feed line depend on the position, so each (bearing,
+length) pair costs one pattern and one set of sky temperatures, and every
+position after that only its pickup of the placed sources and its feed line's
+(the antenna's own amplitudes, which the line's add to, from the same batch).
 
 The search (deterministic, so reproducible):
 
@@ -119,6 +125,8 @@ class Problem:
         self.base_dir = base_dir
         unit = sc.site.length_unit
         outline = polygon(sc.site.lot_m, "site.lot")
+        self.outline = outline.buffer(1e-6)
+        """The lot itself (its feed lines' runs stay on it, as rank checks them: snrgain.scenario.feedline)."""
         inner = outline.buffer(
             -EDGE_MARGIN_M
         )  # a metre inside the boundary: fences, and rounding of the written values
@@ -145,14 +153,10 @@ class Problem:
                 )
         from snrgain.model import pipeline
 
-        # A placeable candidate's feed line is not scored here (unscored_feed_lines: its run, and what it hears,
-        # depend on where the antenna stands): its designs are scored without it.  The scenario's lines are found
-        # by the antenna's name, which every design keeps, so the placeable ones are taken out of it.
+        # A placeable candidate's feed line is scored with it: the scenario's lines are found by the antenna's name,
+        # which every design keeps, and each run starts where the design stands (snrgain.model.feedline), as rank
+        # of the written layout runs it.
         moved = {sc.candidates[k].name for ks in self.members for k in ks}
-        self.feed_lines = sc.feed_lines
-        """Every antenna's feed line, the placeable ones' too: the plan draws them (:func:`plan_data`)."""
-        if any(name in moved for name in sc.feed_lines):
-            sc = replace(sc, feed_lines={n: fl for n, fl in sc.feed_lines.items() if n not in moved})
         sc = self.sc = pipeline.resolve_sources(sc)
         self.grid = pipeline.sky_grid(sc)
         self.skies = pipeline.build_sky(sc, self.grid)
@@ -200,6 +204,15 @@ class Problem:
         if self.tx is not None and not any(self.tx.equals(t) for t in spots.values()):
             spots.setdefault(tx_ant.name, self.tx)  # the transmitting vertical stays where written too
         self.fixed_spots = list(spots.items())
+        self.runs = {}
+        """Each placeable candidate's feed lines by its name: (where the run starts less the design's feed point [m],
+        the station entry [m]) of each of its antennas with one (a switched antenna's states: each its own)."""
+        for i, name in enumerate(self.names):
+            origin = Design(name, 0.0, 0.0, None, None)
+            ants = self.states_at(i, origin) if self.switched[i] else [self.base[i].at((0.0, 0.0))]
+            lines = [(a.params.position, sc.feed_lines[a.name]) for a in ants if a.name in sc.feed_lines]
+            if lines:
+                self.runs[name] = [(tuple(map(float, at)), fl.end_m) for at, fl in lines]
         self._sky: dict[tuple, tuple] = {}
         self._scored: dict[tuple, float] = {}
         self._points: list[tuple[float, float]] | None = None
@@ -212,7 +225,7 @@ class Problem:
 
         name = self.names[i]
         spec = dict(next(c for c in self.data.get("candidate", []) if c.get("name") == name))
-        for key in ("place", "chain", "position", "feed_line"):  # its feed line: not scored here (unscored_feed_lines)
+        for key in ("place", "chain", "position", "feed_line"):  # its feed line: the scenario's, found by its name
             spec.pop(key, None)
         if bearing_rad is not None:
             spec["bearing"] = f"{np.degrees(bearing_rad):.6f} deg"
@@ -309,10 +322,41 @@ class Problem:
         placed gives."""
         from snrgain import pipeline
 
+        sub, p = self.ranked_products(ants, i)
+        return pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :]
+
+    def ranked_products(self, ants, i: int) -> tuple:
+        """(the scenario with ``ants`` in candidate i's place, beside the scatterers and set under the sky; their
+        products, the reference first): :meth:`ranked_gains_db`'s stages."""
+        from snrgain import pipeline
+
         sub = pipeline.with_candidates(self.sc, ants, 1 + self.index[i])
         sub = pipeline.steer(pipeline.with_structures(sub), self.grid, self.skies)
-        p = pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
-        return pipeline.target_statistic(sub, pipeline.snr_gains(sub, p))[1:, :]
+        return sub, pipeline.products(sub, sub.antennas, self.grid, self.skies, known=self.ref)
+
+    def feed_line_costs(self, layout: Layout) -> list[tuple[str, float, str]]:
+        """(candidate, dB, target) for each design of ``layout`` with a feed line: the SNR gain its line costs it where
+        it stands toward its target (the worst of a switched antenna's states and targets), as rank's build sheet
+        gives it (snrgain.model.feedline.summary)."""
+        from snrgain.model.feedline import summary
+
+        out = []
+        for i, d in enumerate(layout.designs):
+            if d.name not in self.runs:
+                continue
+            where = (d.east_m, d.north_m)
+            ants = self.states_at(i, d) if d.states else [self.antenna(i, d.bearing_rad, d.length_m).at(where)]
+            sub, p = self.ranked_products(ants, i)
+            costs = [
+                (float(sheet["snr_gain_cost_db"][t]), t)
+                for k in range(1, len(sub.antennas))
+                if (sheet := summary(sub, p, k)) is not None
+                for t in self.target[i]
+            ]
+            if costs:
+                cost, t = max(costs)
+                out.append((d.name, cost, self.sc.targets[t].name))
+        return out
 
     def states_at(self, i: int, d: Design) -> list:
         """Switched candidate i's states standing at design ``d``: each at its feed point, a reversed wire's other
@@ -418,6 +462,8 @@ class Problem:
                 )
         for name, spot in self.fixed_spots:
             out[self._near_rule("antenna", name)] = max(0.0, WIRE_SEPARATION_M - shape.distance(spot))
+        for rule, v in self.feed_line_columns([d.name], np.array([d.east_m]), np.array([d.north_m])):
+            out[rule] = v[0]
         return {k: float(x) for k, x in out.items() if x > 0}
 
     def violations_many(self, designs: list[Design], others=()) -> list[dict[str, float]]:
@@ -515,7 +561,44 @@ class Problem:
                     np.maximum(0.0, WIRE_SEPARATION_M - shapely.distance(shapes, spot)),
                 )
             )
+        if wires is not None:
+            columns += self.feed_line_columns([wires[0]] * len(shapes), e, n, flags=flags)
+        else:
+            at = np.array([(d.east_m, d.north_m) for d in designs], dtype=float).reshape(-1, 2)
+            columns += self.feed_line_columns([d.name for d in designs], at[:, 0], at[:, 1], flags=flags)
         return columns
+
+    def feed_line_columns(self, names, east_m, north_m, *, flags: bool = False) -> list[tuple[str, np.ndarray]]:
+        """(rule, how far each design breaks it [m]) for the feed lines of designs of the candidates ``names`` with
+        their feed points at (``east_m``, ``north_m``): each run from the antenna to its station entry at least
+        LEAST_RUN_M long and on the lot, as rank of the written layout wants it (snrgain.scenario.feedline refuses a
+        file otherwise); ``flags`` as in :meth:`violation_columns`.  None where no placeable candidate has a line."""
+        import shapely
+
+        from snrgain.physics.feedline import LEAST_RUN_M
+
+        if not self.runs or not any(name in self.runs for name in set(names)):
+            return []
+        unit = self.sc.site.length_unit
+        short, off = np.zeros(len(names)), np.zeros(len(names))
+        for name in set(names):
+            sel = np.array([m == name for m in names])
+            for (dx, dy), to in self.runs.get(name, ()):
+                start = np.stack([east_m[sel] + dx, north_m[sel] + dy], axis=1)
+                run = np.hypot(to[0] - start[:, 0], to[1] - start[:, 1])
+                short[sel] = np.maximum(short[sel], LEAST_RUN_M - run)
+                lines = shapely.linestrings(np.stack([start, np.broadcast_to(to, start.shape)], axis=1))
+                out = ~shapely.covers(self.outline, lines)
+                part = np.zeros(len(start))
+                if flags:
+                    part[out] = 1.0
+                elif out.any():
+                    part[out] = shapely.length(shapely.difference(lines[out], self.outline))
+                off[sel] = np.maximum(off[sel], part)
+        return [
+            (f"its feed line at least {length_text(LEAST_RUN_M, unit, 0)} long", np.maximum(short, 0.0)),
+            ("its feed line on the lot", off),
+        ]
 
     def violation_m(self, d: Design, others=()) -> float:
         """How far a design breaks the rules [m] (the sum of :meth:`violations`); 0 when it keeps them all."""
@@ -878,9 +961,8 @@ def plan_data(problem: Problem, layout: Layout) -> dict:
             gains[a.name] = f"{note}, in its best state"
             e, n = a.params.position
             designs.append(Design(a.name, e, n, _bearing_of(a), getattr(a, "length_m", None) if a.long_wire else None))
-    # every feed line drawn, the placed candidates' from where the layout puts them (not scored: Problem)
-    sc = replace(problem.sc, feed_lines=problem.feed_lines)
-    plan = plan_of(sc, data=problem.data, designs=tuple(designs), gains=gains)
+    # every feed line drawn, the placed candidates' from where the layout puts them
+    plan = plan_of(problem.sc, data=problem.data, designs=tuple(designs), gains=gains)
     plan["layout"] = as_dict([layout])["layouts"][0]
     return plan
 
@@ -922,11 +1004,10 @@ def range_end_notes(problem: Problem, layout: Layout, unit: str = "m") -> list[s
 
 def placed_feed_line_notices(problem: Problem, layout: Layout) -> list:
     """The lot's feed-line notices (snrgain.decide.lot.feed_line_notices: a run within the user's tx_clearance) of the
-    placed candidates' feed lines, each run from where ``layout`` puts its antenna to its station entry (the layout's
-    score leaves these lines out: :func:`unscored_feed_lines`)."""
+    placed candidates' feed lines, each run from where ``layout`` puts its antenna to its station entry."""
     from snrgain.decide.lot import feed_line_notices
 
-    lines = problem.feed_lines
+    lines = problem.sc.feed_lines
     runs = {d.name: ((d.east_m, d.north_m), lines[d.name].end_m) for d in layout.designs if d.name in lines}
     return feed_line_notices(problem.sc, runs)
 
@@ -978,13 +1059,6 @@ def _distinct(found, k):
         if len(out) == k:
             break
     return out
-
-
-def unscored_feed_lines(data: dict) -> list[str]:
-    """The placeable candidates of the scenario's tables ``data`` that give a feed line: the layout scores them
-    without it (its run, and what it hears, depend on where the antenna stands); ``rank`` on the written layout
-    scores it."""
-    return [c.get("name", "?") for c in data.get("candidate", []) if "place" in c and "feed_line" in c]
 
 
 def as_dict(layouts: list[Layout]) -> dict:
