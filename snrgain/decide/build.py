@@ -80,7 +80,7 @@ def build_sheet(antenna, freq_hz: float, *, cable: str | None = None) -> dict:
             out["termination_standard_ohm"] = nearest_standard_ohm(term)
             # The one answer (wiredesign.termination_answer, which `wire` prints too): the resistor of the
             # antenna's criterion with |Z0|, the dB between, how flat the optimum is and the cautions.
-            answer = wiredesign.termination_answer(antenna, freq_hz)
+            answer = wiredesign.termination_answer(antenna, freq_hz, curve=True)
             if answer is not None:
                 out["termination_answer"] = answer.to_dict()
                 out["termination_given"] = (

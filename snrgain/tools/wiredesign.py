@@ -226,10 +226,14 @@ class TerminationAnswer:
         }
 
 
-def termination_answer(antenna, freq_hz: float, criterion: str | None = None) -> TerminationAnswer | None:
+def termination_answer(
+    antenna, freq_hz: float, criterion: str | None = None, *, curve: bool = False
+) -> TerminationAnswer | None:
     """The resistor the antenna's own termination = "auto" gives for ``criterion`` ("rdf", "front_to_back";
     None: the antenna's ``auto_for``), with |Z0|, the E12 value and the figure's flatness around it; None for an
-    antenna without a resistor to choose.  The same function serves `wire`, the build sheet and the report."""
+    antenna without a resistor to choose.  The same function serves `wire`, the build sheet and the report.
+    ``curve``: with the criterion and the front-to-back over the resistors (the build sheet's, for a plan across
+    bands; :attr:`TerminationAnswer.curve`)."""
     from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, search_bound, termination_figure
     from snrgain.decide.build import nearest_standard_ohm
 
@@ -240,7 +244,7 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         return None
     sky = antenna.sky_termination
     if sky is not None and criterion in (None, "snr"):  # chosen under the site's noise (longwire.SkyTermination)
-        return _sky_answer(antenna, freq_hz, sky)
+        return _sky_answer(antenna, freq_hz, sky, curve=curve)
     criterion = criterion or getattr(antenna.params, "auto_for", "rdf")
     if criterion == "snr":  # no sky here: the antenna alone is rated on RDF
         criterion = "rdf"
@@ -269,19 +273,26 @@ def termination_answer(antenna, freq_hz: float, criterion: str | None = None) ->
         at_bound=None if searched is None else search_bound(best, searched),
         search_ohm=None if searched is None else (float(np.min(searched)), float(np.max(searched))),
         matched_words=getattr(antenna, "matched_words", "|Z0|"),
-        curve=_curve(antenna, freq_hz, antenna.auto_terminations_ohm, [db(r) for r in antenna.auto_terminations_ohm]),
+        curve=_curve(antenna, freq_hz, antenna.auto_terminations_ohm, figure) if curve else None,
     )
 
 
-def _curve(antenna, freq_hz: float, values_ohm, figure_db) -> tuple[tuple[float, ...], ...]:
-    """(resistors, the criterion, the front-to-back toward the bearing at the auto elevation) at ``values_ohm``."""
+def _curve(antenna, freq_hz: float, values_ohm, figure) -> tuple[tuple[float, ...], ...]:
+    """(resistors, the criterion, the front-to-back toward the bearing at the auto elevation) at ``values_ohm``;
+    ``figure`` the criterion's figure(r) (longwire.termination_figure), or its values [dB] at ``values_ohm``."""
     from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
 
     elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
     bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
     fb = termination_figure(antenna.termination_pattern(freq_hz), bearing, elevation, "front_to_back")
-    rs = tuple(float(r) for r in values_ohm)
-    return rs, tuple(float(x) for x in figure_db), tuple(float(10 * np.log10(max(fb(r), 1e-30))) for r in rs)
+    rs = np.maximum(np.asarray(values_ohm, dtype=float), 1e-3)
+
+    def at(f):  # every resistor at once where the pattern takes an array of them
+        values = f(rs) if getattr(f, "vectorised", False) else np.array([f(r) for r in rs])
+        return tuple(float(x) for x in 10 * np.log10(np.maximum(np.asarray(values, dtype=float), 1e-30)))
+
+    criterion = at(figure) if callable(figure) else tuple(float(x) for x in figure)
+    return tuple(float(r) for r in values_ohm), criterion, at(fb)
 
 
 FIGURE_FORMAT = "{:.1f}"
@@ -308,7 +319,7 @@ def bound_text(answer: dict, figure: str) -> str | None:
     )
 
 
-def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
+def _sky_answer(antenna, freq_hz: float, sky: dict, *, curve: bool = False) -> TerminationAnswer:
     """The answer of a resistor chosen under the sky: its statistic read off the resistors tried (interpolated in
     log R for 0.7x, 1.4x and the E12 value; nothing is known beyond them, so there the loss reads 0)."""
     from snrgain.antennas.longwire import search_bound
@@ -334,7 +345,7 @@ def _sky_answer(antenna, freq_hz: float, sky: dict) -> TerminationAnswer:
         at_bound=search_bound(best, sky["values_ohm"]),
         search_ohm=(float(min(sky["values_ohm"])), float(max(sky["values_ohm"]))),
         matched_words=getattr(antenna, "matched_words", "|Z0|"),
-        curve=_curve(antenna, freq_hz, sky["values_ohm"], sky["figure_db"]),
+        curve=_curve(antenna, freq_hz, sky["values_ohm"], sky["figure_db"]) if curve else None,
     )
 
 
