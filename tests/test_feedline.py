@@ -974,3 +974,23 @@ def test_a_quiet_feed_lines_cost_reads_zero_not_minus_zero():
     fl["snr_gain_cost_db"] = [-0.358, -0.358]
     said = feed_line_text(fl, "m")
     assert "adds 0.4 dB of SNR gain here" in said and "costs" not in said and "-0.4" not in said
+
+
+@pytest.mark.parametrize(
+    "length, said",
+    [("150 m", None), ("170 m", None), ("100 m", "cannot reach"), ("230 m", "its real one")],
+)
+def test_a_chain_cable_length_far_from_the_feed_lines_run_is_said(length, said):
+    # A reviewer's four-square: its chain's coax 755 ft (230 m) long, its feed_line's run 485 ft (148 m): one cable,
+    # two lengths, and nothing said.  The run here is 150 m straight (the feed point 150 m north of the entry).
+    from snrgain.outputs.messages import notice_text
+
+    chain = f'chain = {{ feedline = {{ cable = "RG-6", length = "{length}" }} }}'
+    r, _ = _run(feed=FEED.format(extra="") + "\n" + chain)
+    got = [n for n in r.notices if n.code == "feed-line-lengths-differ"]
+    if said is None:
+        assert not got
+        return
+    (n,) = got
+    assert n.antenna == "bev" and n.values["run_m"] == pytest.approx(150.0)
+    assert said in notice_text(n)

@@ -104,6 +104,7 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     out.extend(fragile_termination_notices(sc))
     out.extend(off_target_termination_notices(sc))
     out.extend(wire_too_long_notices(sc))
+    out.extend(feed_line_length_notices(sc))
     from snrgain.decide.tolerance import phasing_tolerance_notices
 
     out.extend(phasing_tolerance_notices(sc))
@@ -359,6 +360,28 @@ def off_target_termination_notices(sc: Scenario) -> list[Notice]:
         off = target_outside_lobe(sc, ant, nearest_target(sc, ant.params.bearing))
         if off is not None:
             out.append(Notice("termination-off-target", ant.name, off))
+    return out
+
+
+FEED_LINE_LENGTHS_APART = 0.25
+"""A chain's feed-line length and the feed_line's run (the same cable) further apart than this share of the run are
+said (:func:`feed_line_length_notices`)."""
+
+
+def feed_line_length_notices(sc: Scenario) -> list[Notice]:
+    """``feed-line-lengths-differ`` (chain_m, run_m) for each candidate whose own chain gives its feed line a cable
+    length more than FEED_LINE_LENGTHS_APART off its ``feed_line``'s run (straight from the feed point to the station
+    entry): one cable, whose loss the chain counts and whose shield's pickup the run models.  A chain shorter than the
+    straight run cannot be; a much longer one may be the cable's real route, or a slip."""
+    out = []
+    for k, ant in enumerate(sc.antennas):
+        fl = sc.feed_lines.get(ant.name)
+        length = getattr(sc.chains[k], "length_m", None)
+        if fl is None or length is None:
+            continue
+        run = float(np.hypot(fl.end_m[0] - fl.start_m[0], fl.end_m[1] - fl.start_m[1]))
+        if run > 0 and abs(length - run) > FEED_LINE_LENGTHS_APART * run:
+            out.append(Notice("feed-line-lengths-differ", ant.name, {"chain_m": float(length), "run_m": run}))
     return out
 
 

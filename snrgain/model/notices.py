@@ -42,6 +42,8 @@ class Notice:
     the maximum-effective-length rule that a shorter one beats on RDF; snrgain.decide.decisions),
     ``reference-at-origin`` (where: a reference without a position whose place, the plan's origin, is off the lot,
     in a keep-out area or on a candidate; snrgain.decide.lot),
+    ``feed-line-lengths-differ`` (chain_m, run_m: an antenna's chain cable length a quarter or more off its
+    feed_line's straight run; snrgain.decide.decisions),
     ``termination-off-target`` (target, target_bearing_deg, bearing_deg, off_deg, below_db: a resistor to be chosen
     for SNR whose nearest target lies outside the antenna's main lobe, left at best RDF; snrgain.model.steering),
     ``phasing-tolerance`` (bearing_deg, elevation_deg, rdf_db, front_to_back_db, rdf_drawn_db and

@@ -189,6 +189,18 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "the rule the wave on the wire slips out of step with the arriving wave and the RDF rises and falls with "
             "length; a shorter wire would do better ('snrgain wire' gives the whole length curve)"
         )
+    if n.code == "feed-line-lengths-differ":
+        shorter = v["chain_m"] < v["run_m"]
+        return (
+            f"{n.antenna}: its chain's feed line is {length_text(v['chain_m'], unit, 0)} long but its feed_line runs "
+            f"{length_text(v['run_m'], unit, 0)} straight from the antenna to the station entry; they are one cable, "
+            "whose loss the chain counts and whose shield's pickup the run models: "
+            + (
+                "a cable shorter than the straight run cannot reach, so one of the two is wrong"
+                if shorter
+                else "where the cable does not run straight the chain's length is its real one, else make them agree"
+            )
+        )
     if n.code == "termination-off-target":
         return (
             f"{n.antenna}: its nearest target, {v['target']} at {v['target_bearing_deg']:.0f} deg, "

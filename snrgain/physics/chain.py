@@ -153,6 +153,8 @@ class Chain:
     preamp_index: int | None = None
     cable: str | None = None
     """The feed line's cable type, where the chain names one (for phasing lines cut from the same cable)."""
+    length_m: float | None = None
+    """The feed line's length [m], where the chain gives its cable and length (not its loss alone)."""
 
     @property
     def noise_factor(self) -> float:
@@ -173,7 +175,7 @@ class Chain:
         st = list(self.stages)
         p = st[self.preamp_index]
         st[self.preamp_index] = Stage(p.name, 10 ** (gain_db / 10), p.noise_factor)
-        return Chain(tuple(st), self.preamp_index, self.cable)
+        return Chain(tuple(st), self.preamp_index, self.cable, self.length_m)
 
     def preamp_gain_for_margin(self, antenna_temperature_k: float, margin_db: float) -> float | None:
         """The preamplifier gain [dB] that brings T_A / (T0 F) to ``margin_db``; None if unreachable.
@@ -331,7 +333,7 @@ def cascade(
         preamp_index = 1 if preamp_at_antenna else len(stages)
         stages.insert(preamp_index, amp)
     stages.append(amplifier("receiver", gain_db=0.0, noise_figure_db=receiver_noise_figure_db))
-    return Chain(tuple(stages), preamp_index, cable)
+    return Chain(tuple(stages), preamp_index, cable, feedline_length_m if cable is not None else None)
 
 
 def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
@@ -342,7 +344,7 @@ def with_suggested_preamp(chain: Chain, position: str = "receiver") -> Chain:
     st = list(chain.stages)
     idx = len(st) - 1 if position == "receiver" else 1
     st.insert(idx, amplifier("suggested preamplifier", gain_db=0.0, noise_figure_db=SUGGESTED_PREAMP_NOISE_FIGURE_DB))
-    return Chain(tuple(st), idx, chain.cable)
+    return Chain(tuple(st), idx, chain.cable, chain.length_m)
 
 
 @record
