@@ -231,3 +231,17 @@ def test_a_best_effort_preamp_never_makes_reception_worse():
     assert raised is not None and raised.gain_db > 3.0 and raised.position == "as placed"
     before = 10 * np.log10((t_a + low.temperature_k) / t_a)
     assert np.max(raised.snr_loss_db) < np.max(before) - 0.1
+
+
+def test_a_margin_under_the_receiver_floor_is_said_as_below():
+    # a reviewer read "external noise is only -1.9 dB above the receiver floor"
+    from snrgain.model.notices import Notice
+    from snrgain.outputs.messages import notice_text
+
+    v = {"worst_margin_db": -1.9, "margin_target_db": 10.0, "max_snr_loss_db": 4.1, "preamp_gain_db": 28.0}
+    v["preamp_position"] = "antenna"
+    said = notice_text(Notice("receiver-limited", "a", v))
+    assert "external noise is 1.9 dB below the receiver floor at worst" in said
+    v["worst_margin_db"] = 2.9
+    said = notice_text(Notice("receiver-limited", "a", v))
+    assert "external noise is only 2.9 dB above the receiver floor" in said

@@ -178,7 +178,8 @@ def test_notices_are_data_and_worded_at_the_edge():
     limited = [n for n in notes if n.code == "receiver-limited"]
     assert limited and all(n.values["worst_margin_db"] < n.values["margin_target_db"] for n in limited)
     sentence = notice_text(limited[0])
-    assert limited[0].antenna in sentence and f"{limited[0].values['worst_margin_db']:.1f} dB" in sentence
+    margin = limited[0].values["worst_margin_db"]
+    assert margin < 0 and limited[0].antenna in sentence and f"{-margin:.1f} dB below the receiver floor" in sentence
 
 
 def test_a_receiver_no_preamp_brings_to_the_target_still_gets_the_preamp_that_comes_closest():

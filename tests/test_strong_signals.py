@@ -209,3 +209,14 @@ def test_bad_strong_signal_tables_are_named():
         )
     with pytest.raises(ScenarioError, match=r"p1db"):
         snrgain.evaluate(base.replace('p1db = "+5 dBm"', 'p1db = "+500 dBm"'))
+
+
+def test_a_station_well_under_the_limit_beside_the_loud_one_gets_no_filter_of_its_own():
+    # A reviewer's 160 m farm: a broadcaster at -15 dBm, 10 dB under the -5 dBm safe level, beside a neighbour on
+    # 160 m at +1.3 dBm (the whole trouble) was given a high-pass of its own that bought 0.1 dB.  Stations that
+    # together stay 6 dB under the safe level (UNFILTERED_SHARE) get none; the one left needs the rejection that
+    # brings the total to the safe level: 10 log10(1.349 / (0.316 - 0.0316)) = 6.76 dB (by hand).
+    levels = {"AM 1530": (1.53e6, -15.0), "neighbour": (1.835e6, 1.3)}
+    (f,) = st.overload_filters(levels, 1.83e6, -5.0, bandwidth_hz=500.0)
+    assert f.stations == ("neighbour",) and f.kind == "none"
+    assert f.rejection_db == pytest.approx(10 * np.log10(10**0.13 / (10**-0.5 - 10**-1.5)), abs=0.01)

@@ -18,6 +18,9 @@ from snrgain.decide.decisions import trades_front_to_back
 from snrgain.decide.plan import Plan, station_plan
 from snrgain.model.notices import Notice
 
+SAFER_WORST_FRONT_TO_BACK_DB = 3.0
+"""How much deeper |Z0|'s rear null must be on its worst band than the common resistor's on its worst before it is
+offered as the safer build across bands (a reviewer: offered where it gave 16 dB against 21 dB on one band)."""
 RESISTOR_SPREAD = 1.25
 """Resistors of one antenna that differ by more than this ratio between the bands it serves are said
 (:func:`resistor_notices`): the antenna is built once, with one resistor, unless it is switched per band."""
@@ -114,9 +117,14 @@ def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
         matched = float(np.clip(np.median([a["matched_ohm"] for _, a in answers]), lo, hi))
         loss_matched = (tops - at(matched, "figure_db"))[:, 0]
         fb_matched = at(matched, "front_to_back_db")[:, 0]
-        fragile = any(
-            trades_front_to_back(loss_matched[i] - each[i, k], fb_matched[i] - fb_common[i])
-            for i in range(len(answers))
+        # |Z0| less the far ground is offered where the common resistor trades its rear null for little on a band
+        # and the matched one keeps a deeper null where it is shallowest (its worst band 3 dB better at least)
+        fragile = (
+            any(
+                trades_front_to_back(loss_matched[i] - each[i, k], fb_matched[i] - fb_common[i])
+                for i in range(len(answers))
+            )
+            and float(np.min(fb_matched)) >= float(np.min(fb_common)) + SAFER_WORST_FRONT_TO_BACK_DB
         )
         out.append(
             Notice(

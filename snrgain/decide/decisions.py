@@ -260,6 +260,10 @@ def local_source_notices(sc: Scenario, candidates: list[AntennaResult]) -> list[
     return out
 
 
+FRAGILE_QUIET_FRONT_TO_BACK_DB = 20.0
+"""A resistor of best SNR gain that keeps this much front-to-back as built (its E12 value) is not said to be
+fragile: its rear null is a null of its own, whatever a deeper one elsewhere gives (snrgain's choice: a null 20 dB
+down already leaves the noise from behind under the sky's from the front on most sites)."""
 FRAGILE_OVER_DB = 1.0
 """A resistor chosen for SNR under the site's noise that beats |Z0| by less than this [dB] ..."""
 FRAGILE_FRONT_TO_BACK_DB = 10.0
@@ -291,6 +295,7 @@ def fragile_termination_notices(sc: Scenario) -> list[Notice]:
     holds for, the one of higher front-to-back is named (a short Beverage's best RDF at 215 ohm kept 17 dB where its
     514 ohm |Z0| kept 6 dB)."""
     from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
+    from snrgain.decide.build import nearest_standard_ohm
     from snrgain.tools.wiredesign import sky_figure_db, termination_answer
 
     out = []
@@ -308,7 +313,11 @@ def fragile_termination_notices(sc: Scenario) -> list[Notice]:
         def fb_db(r, fb=fb):
             return float(10 * np.log10(max(fb(max(r, 1e-3)), 1e-30)))
 
-        at_best = fb_db(ans.best_ohm)
+        # as built: each resistor's nearest E12 value (a sharp null at one exact value is not what a builder solders)
+        built = nearest_standard_ohm(ans.best_ohm)
+        at_best = fb_db(built)
+        if at_best >= FRAGILE_QUIET_FRONT_TO_BACK_DB:
+            continue  # the resistor as built keeps a rear null of its own
         weighed = [("matched", ans.matched_ohm, ans.over_matched_db, ans.matched_words)]
         for criterion, words in (
             ("rdf", "the resistor of best RDF"),
@@ -319,9 +328,10 @@ def fragile_termination_notices(sc: Scenario) -> list[Notice]:
                 continue  # the same resistor as one weighed already
             weighed.append((criterion, other.best_ohm, ans.best_db - sky_figure_db(sky, other.best_ohm), words))
         said = [
-            (fb_db(ohm), which, ohm, over, words)
+            (fb_db(nearest_standard_ohm(ohm)), which, ohm, over, words)
             for which, ohm, over, words in weighed
-            if trades_front_to_back(over, fb_db(ohm) - at_best)
+            if nearest_standard_ohm(ohm) != built
+            and trades_front_to_back(over, fb_db(nearest_standard_ohm(ohm)) - at_best)
         ]
         if not said:
             continue
@@ -338,6 +348,9 @@ def fragile_termination_notices(sc: Scenario) -> list[Notice]:
                     "over_safer_db": float(over),
                     "front_to_back_db": at_best,
                     "front_to_back_safer_db": safer_fb,
+                    "standard_ohm": built,
+                    "safer_standard_ohm": nearest_standard_ohm(ohm),
+                    "elevation_deg": float(np.degrees(elevation)),
                 },
             )
         )
@@ -402,7 +415,7 @@ def wire_too_long_notices(sc: Scenario) -> list[Notice]:
     metres, and past that its RDF rises and falls with length."""
     from noisemodels.sphere import upper_hemisphere
     from snrgain.antennas.base import variant
-    from snrgain.model.steering import nearest_target
+    from snrgain.model.steering import nearest_target, target_outside_lobe
     from snrgain.physics.ground import C_M_PER_S
     from snrgain.physics.lines import max_effective_length_m
     from snrgain.tools.wiredesign import rdf_db
@@ -414,7 +427,10 @@ def wire_too_long_notices(sc: Scenario) -> list[Notice]:
             continue
         if ant.composite or not hasattr(ant.params, "bearing"):
             continue
-        t = sc.targets[nearest_target(sc, ant.params.bearing)]
+        ti = nearest_target(sc, ant.params.bearing)
+        if target_outside_lobe(sc, ant, ti) is not None:
+            continue  # judged toward a target it does not face, a shorter (less directional) wire would only "win"
+        t = sc.targets[ti]
         vf = float(ant.line(sc.freq_hz).velocity_factor)
         rule = max_effective_length_m(C_M_PER_S / sc.freq_hz, velocity_factor=vf, elevation_rad=t.mean_elevation_rad)
         if not ant.length_m > LONG_WIRE_RULE_FACTOR * rule:

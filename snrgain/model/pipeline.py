@@ -102,7 +102,18 @@ def evaluate_bands(
     loaded = load_bands(source, nside=nside, p372_dir=p372_dir, reference=reference)
     out = [(band, evaluate(sc, allow_long=allow_long)) for band, sc in loaded]
     plan, columns = plan_across_bands(out)
-    return BandResults(tuple(out), plan, columns, resistor_notices(out, plan, columns))
+    across = resistor_notices(out, plan, columns)
+    # a wire built once for several bands gets one weighed answer (resistor-per-band), not a band's own warning that
+    # its resistor there is fragile, which names another resistor for each band
+    once = {n.antenna for n in across}
+    if once:
+        from dataclasses import replace
+
+        def kept(n):
+            return not (n.code == "termination-fragile" and n.antenna in once)
+
+        out = [(band, replace(r, notices=[n for n in r.notices if kept(n)])) for band, r in out]
+    return BandResults(tuple(out), plan, columns, across)
 
 
 MAX_SECONDS = 300.0

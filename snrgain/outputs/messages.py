@@ -117,8 +117,16 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if v.get("shown_state"):  # the states of one switched antenna said once (snrgain.decide.decisions.notices)
         n = Notice(n.code, f"{n.antenna} (in {v['states']} of its states; {v['shown_state']} shown)", v)
     if n.code == "receiver-limited":
+        margin = v["worst_margin_db"]
+        where = (
+            f"only {margin:.1f} dB above the receiver floor"
+            if round(margin, 1) > 0
+            else f"{-margin:.1f} dB below the receiver floor"
+            if round(margin, 1) < 0
+            else "at the receiver floor"
+        )
         return (
-            f"{n.antenna}: external noise is only {v['worst_margin_db']:.1f} dB above the receiver floor "
+            f"{n.antenna}: external noise is {where} "
             f"at worst (target {v['margin_target_db']:g} dB); receiver noise costs up to "
             f"{v['max_snr_loss_db']:.1f} dB of SNR. "
             + preamp_advice_text(v["preamp_gain_db"], v["preamp_position"])
@@ -175,8 +183,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
                 f"value {safer['standard_ohm']:.0f} ohm), loses {alt}, and is the safer build unless you trust the "
                 "noise as modelled"
             )
-        elif v["worst_db"] < 0.05:  # no band gives up anything to speak of: nothing to switch
-            return text + ": build that one"
+        if v["worst_db"] < 0.05:  # no band gives up anything to speak of: nothing to switch
+            return text + ("; otherwise build that one" if safer else ": build that one")
         return text + "; or switch the resistor per band (a relay at the far end) to keep each band's own"
     if n.code == "wire-too-long":
         return (
@@ -192,8 +200,10 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "feed-line-lengths-differ":
         shorter = v["chain_m"] < v["run_m"]
         return (
-            f"{n.antenna}: its chain's feed line is {length_text(v['chain_m'], unit, 0)} long but its feed_line runs "
-            f"{length_text(v['run_m'], unit, 0)} straight from the antenna to the station entry; they are one cable, "
+            f"{n.antenna}: the feed line its chain counts (chain.feedline length) is "
+            f"{length_text(v['chain_m'], unit, 0)} long but its run on the plan (feed_line) is "
+            f"{length_text(v['run_m'], unit, 0)} straight from the antenna "
+            "to the station entry; they are one cable, "
             "whose loss the chain counts and whose shield's pickup the run models: "
             + (
                 "a cable shorter than the straight run cannot reach, so one of the two is wrong"
@@ -282,11 +292,19 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "termination-fragile":
         safer = f"{v['safer_ohm']:.0f} ohm"
         how = f'(termination = "{safer}")' if v["safer"] == "matched" else f'(auto_for = "{v["safer"]}")'
+        e12 = ""
+        if "standard_ohm" in v:
+            e12 = (
+                f" (built with their E12 values, {v['standard_ohm']:g} and {v['safer_standard_ohm']:g} ohm; toward its "
+                f"bearing at {v['elevation_deg']:.0f} deg)"
+            )
+        over = v["over_safer_db"]
+        by = f"by only {over:.2f} dB" if over >= 0.005 else "by nothing to speak of"
         return (
             f"{n.antenna}: its resistor of best SNR gain, {v['termination_ohm']:.0f} ohm, beats {v['safer_words']} "
-            f"({safer}) by only {v['over_safer_db']:.2f} dB, yet gives a front-to-back of "
-            f"{_db(v['front_to_back_db'], 1)} dB against {_db(v['front_to_back_safer_db'], 1)} dB at {safer}: what it "
-            "adds rests on the noise as modelled "
+            f"({safer}) {by}, yet gives a front-to-back of "
+            f"{_db(v['front_to_back_db'], 1)} dB against {_db(v['front_to_back_safer_db'], 1)} dB at {safer}{e12}: "
+            "what it adds rests on the noise as modelled "
             "(its sources' bearings and levels, the storms' directions), the rear null it gives up does not; unless "
             f"you trust that model, {safer} is the safer build {how}"
         )
