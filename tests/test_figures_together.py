@@ -337,3 +337,51 @@ def test_two_antennas_never_look_alike_below_32():
         looks = antenna_looks(names, families)
         seen = {(lk.color, str(lk.linestyle), lk.marker, lk.linewidth) for lk in looks.values()}
         assert len(seen) == n
+
+
+def _sedge(**edits):
+    """The site's tables, edited (a TOML fragment's tables merged in), loaded: (data, scenario, plan)."""
+    import tomllib
+
+    data = tomllib.loads(SITE.read_text())
+    for section, value in edits.items():
+        if section == "candidate":
+            data["candidate"] = value(data["candidate"])
+        else:
+            data[section] = {**data[section], **value}
+    sc = load(data)
+    return data, sc, plan_of(sc, data=data)
+
+
+def test_the_plan_draws_each_structure_at_its_place_with_its_name():
+    # [site] structures (a tower with a beam that costs an antenna RDF) were left off the plan: each is drawn at its
+    # foot with its name, in a mark of its own (no antenna's family marker, not a source's cross), on the site plan
+    # and on the layout plot
+    from matplotlib.path import Path as MplPath
+
+    from snrgain.outputs.style import FAMILY_MARKERS, STRUCTURE_COLOR
+    from snrgain.tools.layout import Problem, plan_data
+
+    mast = {"name": "mast", "position": ["450 ft", "300 ft"], "height": "60 ft", "top_loading": "10 ft"}
+
+    def placed(cands):  # the Beverage given a place table, for the layout plot
+        return [
+            {**c, "place": {"bearing": ["270 deg", "300 deg"]}} if c["name"] == "Beverage west" else c for c in cands
+        ]
+
+    data, sc, plan = _sedge(site={"structures": [mast]}, candidate=placed)
+    assert plan["structures"] == [
+        ("mast", pytest.approx((450.0 / FT_PER_M, 300.0 / FT_PER_M)), pytest.approx(60.0 / FT_PER_M))
+    ]
+    layout = Problem(sc, data)
+    for fig in (plots.scenario_plan(plan), plots.layout_plan(plan_data(layout, layout.search(keep=1)[0]))):
+        ax = fig.axes[0]
+        (line,) = [ln for ln in ax.get_lines() if ln.get_label().startswith("structure: mast")]
+        assert line.get_label() == "structure: mast, 60 ft tall"
+        assert list(line.get_xydata()[0]) == pytest.approx([450.0, 300.0])
+        assert isinstance(line.get_marker(), MplPath) and line.get_marker() not in FAMILY_MARKERS + ("X",)
+        assert _hex(line.get_markeredgecolor()) == _hex(STRUCTURE_COLOR) and line.get_markerfacecolor() == "none"
+        (name,) = [t for t in ax.texts if t.get_text() == "mast"]
+        assert name.xy == pytest.approx((450.0, 300.0))
+    # the results carry them too (a plan drawn from Python without the scenario)
+    assert snrgain.evaluate(sc).site_plan["structures"] == plan["structures"]

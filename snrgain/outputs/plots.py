@@ -31,7 +31,14 @@ from pathlib import Path
 import numpy as np
 
 from snrgain.model.labelled import QUANTILES
-from snrgain.outputs.style import SOURCE_MARKER, antenna_looks, looks_of, target_looks, unwrapped
+from snrgain.outputs.style import (
+    SOURCE_MARKER,
+    antenna_looks,
+    looks_of,
+    structure_marker,
+    target_looks,
+    unwrapped,
+)
 from snrgain.units import signed_text
 
 FLOOR_SPAN_DB = 40.0
@@ -1017,6 +1024,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         )
     for name, pos in plan["sources"]:
         ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
+    mast = structure_marker()
+    for name, foot, height in plan.get("structures", []):
+        sx, sy = xy([foot])
+        ax.plot(sx, sy, ls="none", label=f"structure: {name}, {height * k:.0f} {unit} tall", zorder=6, **mast)
+        ax.annotate(name, (sx[0], sy[0]), xytext=(9, 0), textcoords="offset points", va="center", fontsize=8)
     for i, (name, run) in enumerate(plan.get("feed_lines", [])):  # dotted in the antenna's colour to the station
         fx, fy = xy(run)
         color = looks[name].color if name in looks else "0.3"
@@ -1133,8 +1145,8 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
 
 
 def _plan_points(plan: dict, k: float) -> np.ndarray:
-    """Every point a plan draws (antennas, wires every few metres, sources, keep-outs, the vertical), scaled by
-    ``k`` to the plan's unit: (n, 2)."""
+    """Every point a plan draws (antennas, wires every few metres, sources, keep-outs, structures, the vertical),
+    scaled by ``k`` to the plan's unit: (n, 2)."""
     pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
     for a in plan["antennas"]:
         for p in a["parts"]:
@@ -1142,7 +1154,8 @@ def _plan_points(plan: dict, k: float) -> np.ndarray:
                 (e0, n0), (e1, n1) = p["coords"][0], p["coords"][-1]
                 t = np.linspace(0.0, 1.0, 40)
                 pts += list(zip(e0 + t * (e1 - e0), n0 + t * (n1 - n0)))
-    pts += [xy for _, xy in plan.get("sources", [])] + [c for _, cs in plan.get("keep_out", []) for c in cs]
+    pts += [xy for _, xy in plan.get("sources", [])]
+    pts += [c for _, cs in plan.get("keep_out", []) for c in cs] + [foot for _, foot, _ in plan.get("structures", [])]
     pts += [plan["tx"]] if plan.get("tx") is not None else []
     return np.asarray(pts, dtype=float).reshape(-1, 2) * k
 

@@ -3,7 +3,7 @@
 
 :func:`plan_of` returns a JSON-like dict (plan coordinates [m east, m north] inside; the unit to show them in at
 the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources, the
-feed lines' runs, every antenna as built (a wire from its feed point, an array's elements, a combination drawn
+feed lines' runs, the structures that re-radiate (``[site] structures``), every antenna as built (a wire from its feed point, an array's elements, a combination drawn
 between its members and joined to each), the lengths of wire off the lot and the points where wires cross.
 ``snrgain layout`` passes the placed designs, which replace those candidates' positions.
 
@@ -134,6 +134,10 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         else None,
         "clearance_given": getattr(site, "tx_clearance_m", None) is not None,
         "sources": [(s.name, tuple(map(float, s.position_m))) for s in sc.noise.local if s.position_m is not None],
+        # (name, foot [m east, m north], height [m]) of each structure that re-radiates
+        "structures": [
+            (st.name, tuple(map(float, st.position)), float(st.height)) for st in getattr(site, "structures", ())
+        ],
         "feed_lines": [  # the coax runs (a candidate's feed_line), from where the antenna stands to the station entry
             (n, [(placed[n].east_m, placed[n].north_m) if n in placed else fl.start_m, fl.end_m])
             for n, fl in getattr(sc, "feed_lines", {}).items()
@@ -213,6 +217,7 @@ def plan_from_results(results) -> dict:
         "clearance_m": None,
         "clearance_given": False,
         "sources": [],
+        "structures": [],
         "antennas": antennas,
         "off_lot": [],
         "crossings": [],
