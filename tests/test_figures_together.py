@@ -385,3 +385,73 @@ def test_the_plan_draws_each_structure_at_its_place_with_its_name():
         assert name.xy == pytest.approx((450.0, 300.0))
     # the results carry them too (a plan drawn from Python without the scenario)
     assert snrgain.evaluate(sc).site_plan["structures"] == plan["structures"]
+
+
+def _arrows(ax):
+    """(start [plan unit], bearing [deg], colour) of each arrow drawn from a place toward a bearing (an annotation
+    without text whose arrow runs to an offset in points)."""
+    out = []
+    for t in ax.texts:
+        if getattr(t, "arrow_patch", None) is None or t.get_text() or t.anncoords != "offset points":
+            continue
+        dx, dy = t.xyann
+        out.append(
+            (
+                np.asarray(t.xy, dtype=float),
+                float(np.degrees(np.arctan2(dx, dy)) % 360.0),
+                _hex(t.arrow_patch.get_edgecolor()),
+            )
+        )
+    return out
+
+
+def _bearing_gap(a, b):
+    return abs((a - b + 180.0) % 360.0 - 180.0)
+
+
+def test_every_antenna_with_a_bearing_carries_its_arrowhead(drawn):
+    # the plan's caption says "arrowhead: the favoured direction", but only wires carried one: the loop, the array
+    # and the combination (each with a bearing) now carry theirs, in their colour, from where they stand; the
+    # reference and the whip (verticals, no bearing) none
+    r, plan, sc = drawn
+    looks = looks_of(r)
+    ax = plots.site_plan(r, plan=plan).axes[0]
+    arrows = _arrows(ax)
+    entries = {a["name"]: a for a in plan["antennas"]}
+    assert entries["flag north-west"]["bearings"] == [320.0] and entries["sense whip"]["bearings"] == []
+    for name, b in (("flag north-west", 320.0), ("pair north-west", 290.0), ("TX vertical + sense whip", 220.0)):
+        ent = entries[name]
+        pts = np.asarray(ent["parts"][0]["coords"], dtype=float) * FT_PER_M
+        reach = np.max(np.hypot(*(pts - pts.mean(axis=0)).T)) + 1e-6
+        mine = [
+            (xy, d)
+            for xy, d, c in arrows
+            if c == _hex(looks[name].color) and np.hypot(*(xy - pts.mean(axis=0))) <= reach
+        ]
+        assert [d for _, d in mine] == [pytest.approx(b)], name
+    for name in ("TX vertical", "sense whip"):
+        assert not [c for _, _, c in arrows if c == _hex(looks[name].color)], name
+    assert "arrowheads: the bearing each antenna favours" in ax.get_title()
+
+
+def test_a_switched_antenna_carries_each_states_arrow_and_a_figure_eight_both_ways():
+    def edit(cands):
+        pair = next(c for c in cands if c["name"] == "pair north-west")
+        del pair["bearing"]
+        pair["directions"] = ["290 deg", "110 deg"]
+        pair["auto_for"] = "rdf"
+        loop = {"name": "loop", "family": "small-loop", "width": "3 ft", "loop_height": "3 ft", "height": "10 ft",
+                "bearing": 45, "position": ["150 ft", "300 ft"]}  # fmt: skip
+        return [*cands, loop]
+
+    _, sc, plan = _sedge(candidate=edit)
+    entries = {a.get("shown_as", a["name"]): a for a in plan["antennas"] if a["parts"]}
+    pair = next(a for n, a in entries.items() if n.startswith("pair north-west (switched"))
+    assert sorted(pair["bearings"]) == [110.0, 290.0] and entries["loop"]["both_ways"]
+    from snrgain.outputs.plots import plan_looks
+
+    looks = plan_looks(plan)
+    arrows = _arrows(plots.scenario_plan(plan).axes[0])
+    of = {n: sorted(d for _, d, c in arrows if c == _hex(looks[a["name"]].color)) for n, a in entries.items()}
+    assert of[next(n for n in of if n.startswith("pair"))] == [pytest.approx(110.0), pytest.approx(290.0)]
+    assert of["loop"] == [pytest.approx(45.0), pytest.approx(225.0)]  # heard both ways: both arrowheads

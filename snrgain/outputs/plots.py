@@ -1081,6 +1081,7 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                     zorder=5,
                 )
             label = None
+        _favoured_arrows(ax, a, lk, k)
     drawn = {a["name"] for a in plan["antennas"] if a["parts"]}
     if plan["tx"] is not None and plan.get("tx_name") not in drawn:  # a TX vertical with no position of its own
         lk = looks.get(plan.get("tx_name"))
@@ -1136,12 +1137,59 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         fontweight="bold",
         arrowprops={"arrowstyle": "->", "lw": 2},
     )
-    ax.set_title(f"{title}\n(marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10, y=1.0)
+    ax.set_title(
+        f"{title}\n(marker on a wire: its feed point; arrowheads: the bearing each antenna favours, one per state "
+        "of a\nswitched antenna, two opposite on a figure-eight; no arrowhead: no favoured bearing)",
+        fontsize=10,
+        y=1.0,
+    )
     entries = len(ax.get_legend_handles_labels()[1])
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
     if own:  # below the plot: its axis label, then the legend's rows
         _place(fig, left=0.9, right=0.3, top=0.6, bottom=0.9 + 0.2 * ((entries + 1) // 2))
     return fig
+
+
+FAVOURED_ARROW_PT = 24.0
+"""Length [pt] of the arrow that shows the bearing a compact antenna, an array or a combination favours."""
+
+
+def _favoured_arrows(ax, entry: dict, look, k: float) -> None:
+    """An arrow in the antenna's colour from where it stands toward each bearing it favours (``entry["bearings"]``
+    of :func:`snrgain.outputs.siteplan.plan_of`; one heard both ways: toward the opposite bearing too): from a
+    compact antenna's marker, a combination's unit, an array's front along that bearing (from its centre where its
+    elements stand across it).  A wire carries its own arrow along it."""
+    parts = [p for p in entry["parts"] if p["kind"] in ("point", "elements", "unit")]
+    bearings = list(entry.get("bearings") or [])
+    if not parts or not bearings or any(p["kind"] == "wire" for p in entry["parts"]):
+        return
+    part = parts[0]
+    pts = np.asarray(part["coords"], dtype=float) * k
+    centre = np.mean(pts, axis=0)
+    if entry.get("both_ways"):
+        bearings += [(b + 180.0) % 360.0 for b in bearings]
+    for b in bearings:
+        r = np.radians(b)
+        u = np.array([np.sin(r), np.cos(r)])
+        # from the array's front (its elements' farthest reach along the bearing), beyond its elements
+        front = float(np.max((pts - centre) @ u))
+        x, y = centre + front * u
+        shrink = 6.0 if part["kind"] == "point" or front > 1e-9 else 5.5 if part["kind"] == "unit" else 0.0
+        ax.annotate(
+            "",
+            xy=(x, y),
+            xytext=(FAVOURED_ARROW_PT * np.sin(r), FAVOURED_ARROW_PT * np.cos(r)),  # the plan's aspect is equal
+            textcoords="offset points",
+            arrowprops={
+                "arrowstyle": "<|-",  # the head at the far end
+                "color": look.color,
+                "lw": 1.8,
+                "mutation_scale": 14,
+                "shrinkA": 0.0,
+                "shrinkB": shrink,
+            },
+            zorder=5,
+        )
 
 
 def _plan_points(plan: dict, k: float) -> np.ndarray:

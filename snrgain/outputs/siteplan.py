@@ -3,8 +3,9 @@
 
 :func:`plan_of` returns a JSON-like dict (plan coordinates [m east, m north] inside; the unit to show them in at
 the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources, the
-feed lines' runs, the structures that re-radiate (``[site] structures``), every antenna as built (a wire from its feed point, an array's elements, a combination drawn
-between its members and joined to each), the lengths of wire off the lot and the points where wires cross.
+feed lines' runs, the structures that re-radiate (``[site] structures``), every antenna as built (a wire from its
+feed point, an array's elements, a combination drawn between its members and joined to each) with the bearings it
+favours, the lengths of wire off the lot and the points where wires cross.
 ``snrgain layout`` passes the placed designs, which replace those candidates' positions.
 
 The unit is the scenario's (:func:`snrgain.units.length_unit_of`: ``[site] units``, else the unit its lengths mostly
@@ -48,6 +49,13 @@ def _antenna_parts(ant, design=None) -> list[dict]:
     return [_part("point", shape.coords)]
 
 
+def _favoured(ant) -> list[float]:
+    """The bearing an antenna is built to favour [deg, 0..360), as a list (empty for one with no bearing: a vertical,
+    a table of gains, wires modelled as written)."""
+    b = getattr(getattr(ant, "params", None), "bearing", None)
+    return [] if b is None else [round(float(np.degrees(b)) % 360.0, 6)]
+
+
 def _fold_switched(ants, entries) -> None:
     """The states of one switched antenna that stand as one on the plan (the same elements or point: an array
     steered to each bearing, a loop turned) drawn once: the first state's entry takes ``shown_as``, the antenna's
@@ -65,6 +73,7 @@ def _fold_switched(ants, entries) -> None:
             continue
         short = [re.sub(r" \([-\d.]+ deg\)$", "", label) for label in st.states]  # "NE (45 deg)": "NE"
         es[0]["shown_as"] = f"{group} (switched: {', '.join(short)})"
+        es[0]["bearings"] = [b for e in es for b in e["bearings"]]  # each state's favoured bearing
         for e in es[1:]:
             e["parts"] = []
 
@@ -89,6 +98,11 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
             "note": gains.get(ant.name),
             "parts": _antenna_parts(ant, placed.get(ant.name)),
             "members": [],
+            # the bearing it favours (a placed design's where layout turns it), and whether it hears both ways
+            "bearings": _favoured(ant)
+            if ant.name not in placed or placed[ant.name].bearing_rad is None
+            else [round(float(np.degrees(placed[ant.name].bearing_rad)) % 360.0, 6)],
+            "both_ways": bool(getattr(ant, "both_ways", False)),
         }
         if ant.composite:
             entry["members"] = [p.name for p in getattr(ant, "elements", None) or ()]
@@ -198,6 +212,8 @@ def plan_from_results(results) -> dict:
                 "note": None,
                 "parts": parts,
                 "members": list(p.get("antennas") or []),
+                "bearings": [] if p.get("bearing_deg") is None else [float(p["bearing_deg"]) % 360.0],
+                "both_ways": bool((getattr(a, "build", None) or {}).get("both_ways", False)),
             }
         )
     where = {a["name"]: a for a in antennas}
