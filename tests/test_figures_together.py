@@ -455,3 +455,36 @@ def test_a_switched_antenna_carries_each_states_arrow_and_a_figure_eight_both_wa
     of = {n: sorted(d for _, d, c in arrows if c == _hex(looks[a["name"]].color)) for n, a in entries.items()}
     assert of[next(n for n in of if n.startswith("pair"))] == [pytest.approx(110.0), pytest.approx(290.0)]
     assert of["loop"] == [pytest.approx(45.0), pytest.approx(225.0)]  # heard both ways: both arrowheads
+
+
+def test_a_source_far_off_the_lot_is_drawn_at_the_plans_edge_with_its_bearing_and_distance():
+    # a power line 600 m off shrank the lot into a corner of the plan: the plan keeps the site's extent and marks
+    # the source at its edge, on the line from the site's middle toward it, saying how far and which way
+    from snrgain.outputs.siteplan import beyond_plan, site_box
+
+    data, sc, plan = _sedge()
+    assert beyond_plan(plan) == []  # the barn light, 100 ft off a 660 ft lot, is drawn where it stands
+    far_at = (3000.0 / FT_PER_M, -1500.0 / FT_PER_M)
+    plan = {**plan, "sources": [("power line", far_at)]}
+    (far,) = beyond_plan(plan)
+    e0, n0, e1, n1 = site_box(plan)
+    mid = (0.5 * (e0 + e1), 0.5 * (n0 + n1))
+    assert far["from"] == pytest.approx(mid)
+    assert far["bearing_deg"] == pytest.approx(np.degrees(np.arctan2(far_at[0] - mid[0], far_at[1] - mid[1])) % 360)
+    assert far["distance_m"] == pytest.approx(np.hypot(far_at[0] - mid[0], far_at[1] - mid[1]))
+    ax = plots.scenario_plan(plan).axes[0]
+    (x_lo, x_hi), (y_lo, y_hi) = ax.get_xlim(), ax.get_ylim()
+    assert x_hi < 800.0 and y_lo > -300.0  # the lot's extent (to 560 ft east, -100 ft north) and a band, not 3000 ft
+    said = f"power line, {far['distance_m'] * FT_PER_M:.0f} ft at {far['bearing_deg']:.0f} deg"
+    (mark,) = [ln for ln in ax.get_lines() if ln.get_label().startswith("noise source beyond the plan: " + said)]
+    mx, my = mark.get_xydata()[0]
+    assert x_lo < mx < x_hi and y_lo < my < y_hi and mx > e1 * FT_PER_M  # inside the frame, beyond the site
+    along = np.degrees(np.arctan2(mx - mid[0] * FT_PER_M, my - mid[1] * FT_PER_M)) % 360.0
+    assert _bearing_gap(along, far["bearing_deg"]) < 0.01  # on the line toward it
+    assert [t for t in ax.texts if t.get_text() == said]
+    outward = [
+        t for t in ax.texts if t.arrow_patch is not None and not t.get_text() and t.xyann == pytest.approx((mx, my))
+    ]
+    assert len(outward) == 1  # an arrow from the mark out to the frame
+    tip = np.asarray(outward[0].xy)
+    assert np.hypot(*(tip - (mx, my))) > 0 and _bearing_gap(np.degrees(np.arctan2(*(tip - (mx, my)))), along) < 0.01

@@ -985,6 +985,8 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     from matplotlib.patches import Circle
     from matplotlib.path import Path as MplPath
 
+    from snrgain.outputs.siteplan import beyond_plan
+
     own = ax is None
     fig, (ax,) = _axes(ax, figsize=(8.0, 8.0))
     unit, k = plan["unit"], plan["per_m"]
@@ -1022,8 +1024,11 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                 label=f"clearance of {plan['tx_name']}: {c * k:.0f} {unit} ({how})",
             )
         )
+    far = beyond_plan(plan)  # drawn at the plan's edge below, once its extent is the site's
+    beyond = {f["name"] for f in far}
     for name, pos in plan["sources"]:
-        ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
+        if name not in beyond:
+            ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
     mast = structure_marker()
     for name, foot, height in plan.get("structures", []):
         sx, sy = xy([foot])
@@ -1127,7 +1132,9 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     ax.grid(alpha=0.3)
     x_lo, x_hi = ax.get_xlim()
     y_lo, y_hi = ax.get_ylim()
-    fx, fy = _north_corner(_plan_points(plan, k), (x_lo, x_hi), (y_lo, y_hi))
+    marks = _at_the_edge(ax, far, k, unit) if far else []
+    points = np.vstack([_plan_points(plan, k, beyond), np.asarray(marks, dtype=float).reshape(-1, 2)])
+    fx, fy = _north_corner(points, (x_lo, x_hi), (y_lo, y_hi))
     ax.annotate(
         "N",
         xy=(fx, fy + 0.12 * (y_hi - y_lo)),
@@ -1192,9 +1199,75 @@ def _favoured_arrows(ax, entry: dict, look, k: float) -> None:
         )
 
 
-def _plan_points(plan: dict, k: float) -> np.ndarray:
-    """Every point a plan draws (antennas, wires every few metres, sources, keep-outs, structures, the vertical),
-    scaled by ``k`` to the plan's unit: (n, 2)."""
+EDGE_BAND = 0.12
+"""The band [fraction of the plan's width or height] added to the plan's side toward a source beyond it, where the
+source is marked."""
+
+
+def _at_the_edge(ax, far: list[dict], k: float, unit: str) -> list[tuple[float, float]]:
+    """Mark each source beyond the plan (:func:`snrgain.outputs.siteplan.beyond_plan`) in a band added to the plan's
+    side toward it, on the line from the site's middle toward it, with an arrow out to the frame and its name,
+    distance and bearing; the plan's extent is otherwise the site's (its limits are fixed here).  Returns the marks'
+    places."""
+    view = [*ax.get_xlim(), *ax.get_ylim()]  # x_lo, x_hi, y_lo, y_hi
+    span = (view[1] - view[0], view[3] - view[2])
+
+    def along(cx, cy, ux, uy, box):  # where the line from (cx, cy) along (ux, uy) leaves box, and by which side
+        x_lo, x_hi, y_lo, y_hi = box
+        ts = []
+        if ux:
+            ts.append((((x_hi if ux > 0 else x_lo) - cx) / ux, 1 if ux > 0 else 0))
+        if uy:
+            ts.append((((y_hi if uy > 0 else y_lo) - cy) / uy, 3 if uy > 0 else 2))
+        t, side = min(ts)
+        return (cx + max(t, 0.0) * ux, cy + max(t, 0.0) * uy), side
+
+    rays = []
+    for f in far:
+        r = np.radians(f["bearing_deg"])
+        rays.append((f, f["from"][0] * k, f["from"][1] * k, float(np.sin(r)), float(np.cos(r))))
+    sides = {along(cx, cy, ux, uy, view)[1] for _, cx, cy, ux, uy in rays}
+    outer, middle = list(view), list(view)
+    for side in sides:  # the band on each side a source lies beyond
+        out = 1.0 if side % 2 else -1.0
+        outer[side] += out * EDGE_BAND * span[side // 2]
+        middle[side] += out * 0.45 * EDGE_BAND * span[side // 2]
+    ax.set_xlim(outer[0], outer[1])  # fixed: nothing drawn after widens the plan
+    ax.set_ylim(outer[2], outer[3])
+    frame = [outer[0] + 0.005 * span[0], outer[1] - 0.005 * span[0], outer[2] + 0.005 * span[1]]
+    frame.append(outer[3] - 0.005 * span[1])
+    marks = []
+    for f, cx, cy, ux, uy in rays:
+        (mx, my), _ = along(cx, cy, ux, uy, middle)
+        said = f"{f['name']}, {f['distance_m'] * k:.0f} {unit} at {f['bearing_deg']:.0f} deg"
+        ax.plot(
+            [mx], [my], ls="none", label=f"noise source beyond the plan: {said} from the site's middle", zorder=6,
+            **SOURCE_MARKER,
+        )  # fmt: skip
+        ax.annotate(
+            "",
+            xy=along(cx, cy, ux, uy, frame)[0],
+            xytext=(mx, my),
+            arrowprops={"arrowstyle": "-|>", "color": "black", "lw": 1.5, "mutation_scale": 14, "shrinkA": 6.0},
+            zorder=6,
+        )
+        ax.annotate(  # beside the mark, toward the plan's inside
+            said,
+            (mx, my),
+            xytext=(-10.0 * ux, -10.0 * uy),
+            textcoords="offset points",
+            ha="right" if ux > 0.3 else "left" if ux < -0.3 else "center",
+            va="top" if uy > 0.3 else "bottom" if uy < -0.3 else "center",
+            fontsize=8,
+            zorder=6,
+        )
+        marks.append((mx, my))
+    return marks
+
+
+def _plan_points(plan: dict, k: float, beyond=()) -> np.ndarray:
+    """Every point a plan draws (antennas, wires every few metres, sources but those ``beyond`` it, keep-outs,
+    structures, the vertical), scaled by ``k`` to the plan's unit: (n, 2)."""
     pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
     for a in plan["antennas"]:
         for p in a["parts"]:
@@ -1202,7 +1275,7 @@ def _plan_points(plan: dict, k: float) -> np.ndarray:
                 (e0, n0), (e1, n1) = p["coords"][0], p["coords"][-1]
                 t = np.linspace(0.0, 1.0, 40)
                 pts += list(zip(e0 + t * (e1 - e0), n0 + t * (n1 - n0)))
-    pts += [xy for _, xy in plan.get("sources", [])]
+    pts += [xy for name, xy in plan.get("sources", []) if name not in beyond]
     pts += [c for _, cs in plan.get("keep_out", []) for c in cs] + [foot for _, foot, _ in plan.get("structures", [])]
     pts += [plan["tx"]] if plan.get("tx") is not None else []
     return np.asarray(pts, dtype=float).reshape(-1, 2) * k

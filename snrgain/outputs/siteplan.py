@@ -5,7 +5,8 @@
 the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources, the
 feed lines' runs, the structures that re-radiate (``[site] structures``), every antenna as built (a wire from its
 feed point, an array's elements, a combination drawn between its members and joined to each) with the bearings it
-favours, the lengths of wire off the lot and the points where wires cross.
+favours, the lengths of wire off the lot and the points where wires cross.  :func:`beyond_plan` tells which placed
+sources lie so far off the site that the plan marks them at its edge instead.
 ``snrgain layout`` passes the placed designs, which replace those candidates' positions.
 
 The unit is the scenario's (:func:`snrgain.units.length_unit_of`: ``[site] units``, else the unit its lengths mostly
@@ -244,3 +245,53 @@ def has_plan(plan: dict) -> bool:
     """Whether there is anything to draw: a lot, or an antenna with a place on it (an array's element positions
     alone may be relative to the array, not places on a plan)."""
     return bool(plan.get("lot") or any(p["kind"] in ("wire", "point") for a in plan["antennas"] for p in a["parts"]))
+
+
+FAR_SIDES = 0.5
+"""A placed source lies beyond the plan when it stands farther from the site's box (:func:`site_box`) than this
+many times the box's longer side (at least :data:`FAR_MIN_M`): drawn where it stands it would shrink the site into
+a corner of the plan."""
+FAR_MIN_M = 20.0
+"""The least distance off the site's box [m] at which a placed source is drawn at the plan's edge."""
+
+
+def site_box(plan: dict) -> tuple[float, float, float, float] | None:
+    """(east min, north min, east max, north max) [m] of what the plan draws on the site: the lot, the keep-outs,
+    the antennas, the feed lines, the structures and the transmitting vertical (not the placed noise sources);
+    None where it holds none of them."""
+    pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
+    pts += list(plan.get("lot") or []) + [c for _, cs in plan.get("keep_out", []) for c in cs]
+    pts += [c for _, run in plan.get("feed_lines", []) for c in run]
+    pts += [foot for _, foot, _ in plan.get("structures", [])]
+    pts += [plan["tx"]] if plan.get("tx") is not None else []
+    if not pts:
+        return None
+    arr = np.asarray(pts, dtype=float).reshape(-1, 2)
+    return (*arr.min(axis=0), *arr.max(axis=0))
+
+
+def beyond_plan(plan: dict) -> list[dict]:
+    """The placed sources that lie far off the site (:data:`FAR_SIDES`), each ``{"name", "at" (its place [m]),
+    "from" (the middle of the site's box [m]), "bearing_deg", "distance_m"}`` (bearing and distance from that
+    middle): the plan is drawn to the site's extent and these at its edge, toward where they stand."""
+    box = site_box(plan)
+    if box is None:
+        return []
+    e0, n0, e1, n1 = box
+    far = max(FAR_SIDES * max(e1 - e0, n1 - n0), FAR_MIN_M)
+    mid = (0.5 * (e0 + e1), 0.5 * (n0 + n1))
+    out = []
+    for name, (e, n) in plan.get("sources", []):
+        off = float(np.hypot(max(e0 - e, 0.0, e - e1), max(n0 - n, 0.0, n - n1)))  # from the box; 0 inside
+        if off > far:
+            de, dn = e - mid[0], n - mid[1]
+            out.append(
+                {
+                    "name": name,
+                    "at": (float(e), float(n)),
+                    "from": mid,
+                    "bearing_deg": float(np.degrees(np.arctan2(de, dn)) % 360.0),
+                    "distance_m": float(np.hypot(de, dn)),
+                }
+            )
+    return out
