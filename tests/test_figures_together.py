@@ -488,3 +488,28 @@ def test_a_source_far_off_the_lot_is_drawn_at_the_plans_edge_with_its_bearing_an
     assert len(outward) == 1  # an arrow from the mark out to the frame
     tip = np.asarray(outward[0].xy)
     assert np.hypot(*(tip - (mx, my))) > 0 and _bearing_gap(np.degrees(np.arctan2(*(tip - (mx, my)))), along) < 0.01
+
+
+def test_the_azimuth_pattern_draws_each_antenna_relative_to_its_own_peak(drawn):
+    # in absolute dBi a four-square of short verticals 30 dB under the TX vertical collapsed into the centre: each
+    # antenna is now drawn in dB under its own peak on the cut (0 dB at the rim), its peak gain in dBi in the legend,
+    # the floor far enough down that a 20-30 dB front-to-back shows
+    r, _, _ = drawn
+    i = 0
+    ax = plots.azimuth_pattern(r, target_index=i).axes[0]
+    span = plots.AZIMUTH_SPAN_DB
+    assert span >= 35.0
+    lines = {ln.get_label(): ln for ln in ax.get_lines()}
+    for a in r.antennas:
+        cut = np.asarray(r.cuts.azimuth[a.name][i], dtype=float)
+        peak = float(np.nanmax(cut))
+        label = f"{a.name}{' (reference)' if a is r.reference else ''}: peak {peak:.1f} dBi"
+        drawn_r = np.asarray(lines[label].get_ydata(), dtype=float)
+        assert drawn_r.max() == pytest.approx(span)  # its own peak at the rim
+        assert drawn_r == pytest.approx(np.clip(np.where(np.isfinite(cut), cut - peak, -span), -span, 0.0) + span)
+    # the radial labels say dB relative to the peak: 0 at the rim
+    ticks = dict(zip(ax.get_yticks(), [t.get_text() for t in ax.get_yticklabels()]))
+    assert ticks[span] == "0" and ticks[span - 20] == "-20"
+    assert "relative to each antenna's own peak" in ax.get_title()
+    caption = next(c for t, _, c in report.figure_makers(r) if t.startswith("Azimuth pattern"))
+    assert "relative to its own peak" in caption

@@ -42,7 +42,11 @@ from snrgain.outputs.style import (
 from snrgain.units import signed_text
 
 FLOOR_SPAN_DB = 40.0
-"""Polar plots show this many dB below the strongest trace."""
+"""The elevation pattern shows this many dB below the strongest trace (in dBi)."""
+AZIMUTH_SPAN_DB = 40.0
+"""The azimuth pattern's floor below each antenna's own peak [dB]: a front-to-back of 20-30 dB stands clear of it."""
+AZIMUTH_FIGSIZE = (8.5, 7.0)
+"""The azimuth pattern's size [in]: a circle 5 in across, the legend (names and peak gains) to its right."""
 MARKS_ALONG = 12
 """Family markers drawn along a pattern trace (so a grey print still tells the families apart)."""
 
@@ -134,7 +138,7 @@ def blank_kinds(
         kinds.append((_ranking_kind(n_candidates, n_targets), 1))
     # Those that need the results first: the figures drawn ahead (the patterns and the sky, drawn_alike) may be drawn
     # before their blanks are made (the command line hands them over as the pipeline makes the sky and the cuts).
-    kinds += [({"polar": True, "figsize": (7.5, 7.0)}, n_targets), ({"figsize": (8.0, 4.8)}, n_targets)]
+    kinds += [({"polar": True, "figsize": AZIMUTH_FIGSIZE}, n_targets), ({"figsize": (8.0, 4.8)}, n_targets)]
     if n_diffuse is not None:
         kinds.append((_sky_kind(n_diffuse + 1), 1))
     return kinds
@@ -223,28 +227,39 @@ def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: f
 
 
 def azimuth_pattern(results, *, target_index: int = 0, ax=None):
-    """Polar azimuth pattern of every antenna at the target's mean elevation (dBi, floored); ``ax`` polar."""
+    """Polar azimuth pattern of every antenna at the target's mean elevation, each in dB below its own peak on that
+    cut (0 dB at the rim, floored :data:`AZIMUTH_SPAN_DB` below it), its peak gain [dBi] in its legend entry: the
+    patterns' shapes side by side, a four-square of short verticals beside a TX vertical 30 dB stronger (the SNR
+    gain does not depend on the absolute gain; the elevation pattern draws it); ``ax`` polar."""
     own = ax is None
     fd = results.cuts
     tgt = results.targets[target_index]
     el = 0.5 * (tgt["elevation_min_deg"] + tgt["elevation_max_deg"])
-    fig, (ax,) = _axes(ax, polar=True, figsize=(7.5, 7.0))
+    fig, (ax,) = _axes(ax, polar=True, figsize=AZIMUTH_FIGSIZE)
     ax.set_theta_zero_location("N")
     ax.set_theta_direction(-1)
-    cuts = {a.name: fd.azimuth[a.name][target_index] for a in _antennas(results)}
-    top = max(np.nanmax(np.where(np.isfinite(c), c, -np.inf)) for c in cuts.values())
-    floor = np.ceil(top) - FLOOR_SPAN_DB
+    span = AZIMUTH_SPAN_DB
     theta = np.radians(fd.azimuth_deg)
     looks = looks_of(results)
     every = max(1, theta.size // MARKS_ALONG)
     for k, a in enumerate(_antennas(results)):
-        r = np.clip(np.nan_to_num(cuts[a.name], neginf=floor), floor, None) - floor
+        rel, peak = own_peak(fd.azimuth[a.name][target_index])
+        r = np.clip(np.where(np.isfinite(rel), rel, -span), -span, 0.0) + span  # no gain (-inf, NaN): the floor
         lk = looks[a.name]
-        ax.plot(theta, r, label=_label(a, results), marker=lk.marker, ms=5, markevery=(k % every, every), **lk.line())
-    ax.set_rlim(0, FLOOR_SPAN_DB + 2)
-    ticks = np.arange(0, FLOOR_SPAN_DB + 1, 10)
+        said = "no gain on this cut" if peak is None else f"peak {peak:.1f} dBi"
+        ax.plot(
+            theta,
+            r,
+            label=f"{_label(a, results)}: {said}",
+            marker=lk.marker,
+            ms=5,
+            markevery=(k % every, every),
+            **lk.line(),
+        )
+    ax.set_rlim(0, span + 2)
+    ticks = np.arange(0, span + 1, 10)
     ax.set_rticks(ticks)
-    ax.set_yticklabels([f"{floor + t:.0f}" for t in ticks], fontsize=8)
+    ax.set_yticklabels([f"{t - span:.0f}" for t in ticks], fontsize=8)
     # the gain labels along the bearing farthest from every target and local source, where no arrow crosses them
     marked = [t["bearing_deg"] for t in results.targets] + [s["bearing_deg"] for s in results.local_sources]
     ax.set_rlabel_position(
@@ -263,13 +278,13 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     for i, (t, tl) in enumerate(zip(results.targets, target_looks(len(results.targets)))):
         ax.annotate(
             "",
-            xy=(np.radians(t["bearing_deg"]), FLOOR_SPAN_DB + 2),
+            xy=(np.radians(t["bearing_deg"]), span + 2),
             xytext=(0, 0),
             arrowprops={"arrowstyle": "->", "color": "black" if i == target_index else "0.6", "lw": 1.2},
         )
         ax.plot(
             [np.radians(t["bearing_deg"])],
-            [FLOOR_SPAN_DB + 2],
+            [span + 2],
             marker=tl.marker,
             ms=12,
             mfc="white",
@@ -280,7 +295,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         )
         ax.text(
             np.radians(t["bearing_deg"]),
-            FLOOR_SPAN_DB + 6,
+            span + 6,
             f"{t['name']} {t['bearing_deg'] % 360.0:.0f}°",
             ha="center",
             va="center",
@@ -288,19 +303,29 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
             fontweight="bold" if i == target_index else "normal",
         )
     for s in results.local_sources:
-        ax.plot(
-            [np.radians(s["bearing_deg"])], [FLOOR_SPAN_DB], ls="none", label=f"noise: {s['name']}", **SOURCE_MARKER
-        )
+        ax.plot([np.radians(s["bearing_deg"])], [span], ls="none", label=f"noise: {s['name']}", **SOURCE_MARKER)
     ax.set_title(
-        f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
-        f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz",
+        f"Azimuth pattern at {el:.0f} deg elevation toward '{tgt['name']}'\n{results.site['name']}, "
+        f"{results.freq_hz / 1e6:g} MHz\ndB relative to each antenna's own peak (the rim); its peak in dBi in the "
+        "legend",
         pad=28,
         y=1.0,  # placed, not moved above the decorations at the draw (which measures them once more)
     )
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     if own:
-        _place(fig, left=0.6, right=1.9, top=1.1, bottom=0.9)  # a circle 5 in across, the legend to its right
+        _place(fig, left=0.6, right=2.9, top=1.1, bottom=0.9)  # a circle 5 in across, the legend to its right
     return fig
+
+
+def own_peak(cut) -> tuple[np.ndarray, float | None]:
+    """(the cut in dB relative to its own peak, the peak [dBi]) of a pattern cut [dBi]; the peak None (and the cut
+    all -inf) where no value is finite (no gain at all on it)."""
+    cut = np.asarray(cut, dtype=float)
+    finite = np.isfinite(cut)
+    if not finite.any():
+        return np.full(cut.shape, -np.inf), None
+    peak = float(np.max(cut[finite]))
+    return cut - peak, peak
 
 
 def elevation_pattern(results, *, target_index: int = 0, ax=None):
