@@ -337,3 +337,179 @@ def test_two_antennas_never_look_alike_below_32():
         looks = antenna_looks(names, families)
         seen = {(lk.color, str(lk.linestyle), lk.marker, lk.linewidth) for lk in looks.values()}
         assert len(seen) == n
+
+
+def _sedge(**edits):
+    """The site's tables, edited (a TOML fragment's tables merged in), loaded: (data, scenario, plan)."""
+    import tomllib
+
+    data = tomllib.loads(SITE.read_text())
+    for section, value in edits.items():
+        if section == "candidate":
+            data["candidate"] = value(data["candidate"])
+        else:
+            data[section] = {**data[section], **value}
+    sc = load(data)
+    return data, sc, plan_of(sc, data=data)
+
+
+def test_the_plan_draws_each_structure_at_its_place_with_its_name():
+    # [site] structures (a tower with a beam that costs an antenna RDF) were left off the plan: each is drawn at its
+    # foot with its name, in a mark of its own (no antenna's family marker, not a source's cross), on the site plan
+    # and on the layout plot
+    from matplotlib.path import Path as MplPath
+
+    from snrgain.outputs.style import FAMILY_MARKERS, STRUCTURE_COLOR
+    from snrgain.tools.layout import Problem, plan_data
+
+    mast = {"name": "mast", "position": ["450 ft", "300 ft"], "height": "60 ft", "top_loading": "10 ft"}
+
+    def placed(cands):  # the Beverage given a place table, for the layout plot
+        return [
+            {**c, "place": {"bearing": ["270 deg", "300 deg"]}} if c["name"] == "Beverage west" else c for c in cands
+        ]
+
+    data, sc, plan = _sedge(site={"structures": [mast]}, candidate=placed)
+    assert plan["structures"] == [
+        ("mast", pytest.approx((450.0 / FT_PER_M, 300.0 / FT_PER_M)), pytest.approx(60.0 / FT_PER_M))
+    ]
+    layout = Problem(sc, data)
+    for fig in (plots.scenario_plan(plan), plots.layout_plan(plan_data(layout, layout.search(keep=1)[0]))):
+        ax = fig.axes[0]
+        (line,) = [ln for ln in ax.get_lines() if ln.get_label().startswith("structure: mast")]
+        assert line.get_label() == "structure: mast, 60 ft tall"
+        assert list(line.get_xydata()[0]) == pytest.approx([450.0, 300.0])
+        assert isinstance(line.get_marker(), MplPath) and line.get_marker() not in FAMILY_MARKERS + ("X",)
+        assert _hex(line.get_markeredgecolor()) == _hex(STRUCTURE_COLOR) and line.get_markerfacecolor() == "none"
+        (name,) = [t for t in ax.texts if t.get_text() == "mast"]
+        assert name.xy == pytest.approx((450.0, 300.0))
+    # the results carry them too (a plan drawn from Python without the scenario)
+    assert snrgain.evaluate(sc).site_plan["structures"] == plan["structures"]
+
+
+def _arrows(ax):
+    """(start [plan unit], bearing [deg], colour) of each arrow drawn from a place toward a bearing (an annotation
+    without text whose arrow runs to an offset in points)."""
+    out = []
+    for t in ax.texts:
+        if getattr(t, "arrow_patch", None) is None or t.get_text() or t.anncoords != "offset points":
+            continue
+        dx, dy = t.xyann
+        out.append(
+            (
+                np.asarray(t.xy, dtype=float),
+                float(np.degrees(np.arctan2(dx, dy)) % 360.0),
+                _hex(t.arrow_patch.get_edgecolor()),
+            )
+        )
+    return out
+
+
+def _bearing_gap(a, b):
+    return abs((a - b + 180.0) % 360.0 - 180.0)
+
+
+def test_every_antenna_with_a_bearing_carries_its_arrowhead(drawn):
+    # the plan's caption says "arrowhead: the favoured direction", but only wires carried one: the loop, the array
+    # and the combination (each with a bearing) now carry theirs, in their colour, from where they stand; the
+    # reference and the whip (verticals, no bearing) none
+    r, plan, sc = drawn
+    looks = looks_of(r)
+    ax = plots.site_plan(r, plan=plan).axes[0]
+    arrows = _arrows(ax)
+    entries = {a["name"]: a for a in plan["antennas"]}
+    assert entries["flag north-west"]["bearings"] == [320.0] and entries["sense whip"]["bearings"] == []
+    for name, b in (("flag north-west", 320.0), ("pair north-west", 290.0), ("TX vertical + sense whip", 220.0)):
+        ent = entries[name]
+        pts = np.asarray(ent["parts"][0]["coords"], dtype=float) * FT_PER_M
+        reach = np.max(np.hypot(*(pts - pts.mean(axis=0)).T)) + 1e-6
+        mine = [
+            (xy, d)
+            for xy, d, c in arrows
+            if c == _hex(looks[name].color) and np.hypot(*(xy - pts.mean(axis=0))) <= reach
+        ]
+        assert [d for _, d in mine] == [pytest.approx(b)], name
+    for name in ("TX vertical", "sense whip"):
+        assert not [c for _, _, c in arrows if c == _hex(looks[name].color)], name
+    assert "arrowheads: the bearing each antenna favours" in ax.get_title()
+
+
+def test_a_switched_antenna_carries_each_states_arrow_and_a_figure_eight_both_ways():
+    def edit(cands):
+        pair = next(c for c in cands if c["name"] == "pair north-west")
+        del pair["bearing"]
+        pair["directions"] = ["290 deg", "110 deg"]
+        pair["auto_for"] = "rdf"
+        loop = {"name": "loop", "family": "small-loop", "width": "3 ft", "loop_height": "3 ft", "height": "10 ft",
+                "bearing": 45, "position": ["150 ft", "300 ft"]}  # fmt: skip
+        return [*cands, loop]
+
+    _, sc, plan = _sedge(candidate=edit)
+    entries = {a.get("shown_as", a["name"]): a for a in plan["antennas"] if a["parts"]}
+    pair = next(a for n, a in entries.items() if n.startswith("pair north-west (switched"))
+    assert sorted(pair["bearings"]) == [110.0, 290.0] and entries["loop"]["both_ways"]
+    from snrgain.outputs.plots import plan_looks
+
+    looks = plan_looks(plan)
+    arrows = _arrows(plots.scenario_plan(plan).axes[0])
+    of = {n: sorted(d for _, d, c in arrows if c == _hex(looks[a["name"]].color)) for n, a in entries.items()}
+    assert of[next(n for n in of if n.startswith("pair"))] == [pytest.approx(110.0), pytest.approx(290.0)]
+    assert of["loop"] == [pytest.approx(45.0), pytest.approx(225.0)]  # heard both ways: both arrowheads
+
+
+def test_a_source_far_off_the_lot_is_drawn_at_the_plans_edge_with_its_bearing_and_distance():
+    # a power line 600 m off shrank the lot into a corner of the plan: the plan keeps the site's extent and marks
+    # the source at its edge, on the line from the site's middle toward it, saying how far and which way
+    from snrgain.outputs.siteplan import beyond_plan, site_box
+
+    data, sc, plan = _sedge()
+    assert beyond_plan(plan) == []  # the barn light, 100 ft off a 660 ft lot, is drawn where it stands
+    far_at = (3000.0 / FT_PER_M, -1500.0 / FT_PER_M)
+    plan = {**plan, "sources": [("power line", far_at)]}
+    (far,) = beyond_plan(plan)
+    e0, n0, e1, n1 = site_box(plan)
+    mid = (0.5 * (e0 + e1), 0.5 * (n0 + n1))
+    assert far["from"] == pytest.approx(mid)
+    assert far["bearing_deg"] == pytest.approx(np.degrees(np.arctan2(far_at[0] - mid[0], far_at[1] - mid[1])) % 360)
+    assert far["distance_m"] == pytest.approx(np.hypot(far_at[0] - mid[0], far_at[1] - mid[1]))
+    ax = plots.scenario_plan(plan).axes[0]
+    (x_lo, x_hi), (y_lo, y_hi) = ax.get_xlim(), ax.get_ylim()
+    assert x_hi < 800.0 and y_lo > -300.0  # the lot's extent (to 560 ft east, -100 ft north) and a band, not 3000 ft
+    said = f"power line, {far['distance_m'] * FT_PER_M:.0f} ft at {far['bearing_deg']:.0f} deg"
+    (mark,) = [ln for ln in ax.get_lines() if ln.get_label().startswith("noise source beyond the plan: " + said)]
+    mx, my = mark.get_xydata()[0]
+    assert x_lo < mx < x_hi and y_lo < my < y_hi and mx > e1 * FT_PER_M  # inside the frame, beyond the site
+    along = np.degrees(np.arctan2(mx - mid[0] * FT_PER_M, my - mid[1] * FT_PER_M)) % 360.0
+    assert _bearing_gap(along, far["bearing_deg"]) < 0.01  # on the line toward it
+    assert [t for t in ax.texts if t.get_text() == said]
+    outward = [
+        t for t in ax.texts if t.arrow_patch is not None and not t.get_text() and t.xyann == pytest.approx((mx, my))
+    ]
+    assert len(outward) == 1  # an arrow from the mark out to the frame
+    tip = np.asarray(outward[0].xy)
+    assert np.hypot(*(tip - (mx, my))) > 0 and _bearing_gap(np.degrees(np.arctan2(*(tip - (mx, my)))), along) < 0.01
+
+
+def test_the_azimuth_pattern_draws_each_antenna_relative_to_its_own_peak(drawn):
+    # in absolute dBi a four-square of short verticals 30 dB under the TX vertical collapsed into the centre: each
+    # antenna is now drawn in dB under its own peak on the cut (0 dB at the rim), its peak gain in dBi in the legend,
+    # the floor far enough down that a 20-30 dB front-to-back shows
+    r, _, _ = drawn
+    i = 0
+    ax = plots.azimuth_pattern(r, target_index=i).axes[0]
+    span = plots.AZIMUTH_SPAN_DB
+    assert span >= 35.0
+    lines = {ln.get_label(): ln for ln in ax.get_lines()}
+    for a in r.antennas:
+        cut = np.asarray(r.cuts.azimuth[a.name][i], dtype=float)
+        peak = float(np.nanmax(cut))
+        label = f"{a.name}{' (reference)' if a is r.reference else ''}: peak {peak:.1f} dBi"
+        drawn_r = np.asarray(lines[label].get_ydata(), dtype=float)
+        assert drawn_r.max() == pytest.approx(span)  # its own peak at the rim
+        assert drawn_r == pytest.approx(np.clip(np.where(np.isfinite(cut), cut - peak, -span), -span, 0.0) + span)
+    # the radial labels say dB relative to the peak: 0 at the rim
+    ticks = dict(zip(ax.get_yticks(), [t.get_text() for t in ax.get_yticklabels()]))
+    assert ticks[span] == "0" and ticks[span - 20] == "-20"
+    assert "relative to each antenna's own peak" in ax.get_title()
+    caption = next(c for t, _, c in report.figure_makers(r) if t.startswith("Azimuth pattern"))
+    assert "relative to its own peak" in caption

@@ -31,11 +31,22 @@ from pathlib import Path
 import numpy as np
 
 from snrgain.model.labelled import QUANTILES
-from snrgain.outputs.style import SOURCE_MARKER, antenna_looks, looks_of, target_looks, unwrapped
+from snrgain.outputs.style import (
+    SOURCE_MARKER,
+    antenna_looks,
+    looks_of,
+    structure_marker,
+    target_looks,
+    unwrapped,
+)
 from snrgain.units import signed_text
 
 FLOOR_SPAN_DB = 40.0
-"""Polar plots show this many dB below the strongest trace."""
+"""The elevation pattern shows this many dB below the strongest trace (in dBi)."""
+AZIMUTH_SPAN_DB = 40.0
+"""The azimuth pattern's floor below each antenna's own peak [dB]: a front-to-back of 20-30 dB stands clear of it."""
+AZIMUTH_FIGSIZE = (8.5, 7.0)
+"""The azimuth pattern's size [in]: a circle 5 in across, the legend (names and peak gains) to its right."""
 MARKS_ALONG = 12
 """Family markers drawn along a pattern trace (so a grey print still tells the families apart)."""
 
@@ -127,7 +138,7 @@ def blank_kinds(
         kinds.append((_ranking_kind(n_candidates, n_targets), 1))
     # Those that need the results first: the figures drawn ahead (the patterns and the sky, drawn_alike) may be drawn
     # before their blanks are made (the command line hands them over as the pipeline makes the sky and the cuts).
-    kinds += [({"polar": True, "figsize": (7.5, 7.0)}, n_targets), ({"figsize": (8.0, 4.8)}, n_targets)]
+    kinds += [({"polar": True, "figsize": AZIMUTH_FIGSIZE}, n_targets), ({"figsize": (8.0, 4.8)}, n_targets)]
     if n_diffuse is not None:
         kinds.append((_sky_kind(n_diffuse + 1), 1))
     return kinds
@@ -216,28 +227,39 @@ def _place(fig, *, left: float, right: float, top: float, bottom: float, hgap: f
 
 
 def azimuth_pattern(results, *, target_index: int = 0, ax=None):
-    """Polar azimuth pattern of every antenna at the target's mean elevation (dBi, floored); ``ax`` polar."""
+    """Polar azimuth pattern of every antenna at the target's mean elevation, each in dB below its own peak on that
+    cut (0 dB at the rim, floored :data:`AZIMUTH_SPAN_DB` below it), its peak gain [dBi] in its legend entry: the
+    patterns' shapes side by side, a four-square of short verticals beside a TX vertical 30 dB stronger (the SNR
+    gain does not depend on the absolute gain; the elevation pattern draws it); ``ax`` polar."""
     own = ax is None
     fd = results.cuts
     tgt = results.targets[target_index]
     el = 0.5 * (tgt["elevation_min_deg"] + tgt["elevation_max_deg"])
-    fig, (ax,) = _axes(ax, polar=True, figsize=(7.5, 7.0))
+    fig, (ax,) = _axes(ax, polar=True, figsize=AZIMUTH_FIGSIZE)
     ax.set_theta_zero_location("N")
     ax.set_theta_direction(-1)
-    cuts = {a.name: fd.azimuth[a.name][target_index] for a in _antennas(results)}
-    top = max(np.nanmax(np.where(np.isfinite(c), c, -np.inf)) for c in cuts.values())
-    floor = np.ceil(top) - FLOOR_SPAN_DB
+    span = AZIMUTH_SPAN_DB
     theta = np.radians(fd.azimuth_deg)
     looks = looks_of(results)
     every = max(1, theta.size // MARKS_ALONG)
     for k, a in enumerate(_antennas(results)):
-        r = np.clip(np.nan_to_num(cuts[a.name], neginf=floor), floor, None) - floor
+        rel, peak = own_peak(fd.azimuth[a.name][target_index])
+        r = np.clip(np.where(np.isfinite(rel), rel, -span), -span, 0.0) + span  # no gain (-inf, NaN): the floor
         lk = looks[a.name]
-        ax.plot(theta, r, label=_label(a, results), marker=lk.marker, ms=5, markevery=(k % every, every), **lk.line())
-    ax.set_rlim(0, FLOOR_SPAN_DB + 2)
-    ticks = np.arange(0, FLOOR_SPAN_DB + 1, 10)
+        said = "no gain on this cut" if peak is None else f"peak {peak:.1f} dBi"
+        ax.plot(
+            theta,
+            r,
+            label=f"{_label(a, results)}: {said}",
+            marker=lk.marker,
+            ms=5,
+            markevery=(k % every, every),
+            **lk.line(),
+        )
+    ax.set_rlim(0, span + 2)
+    ticks = np.arange(0, span + 1, 10)
     ax.set_rticks(ticks)
-    ax.set_yticklabels([f"{floor + t:.0f}" for t in ticks], fontsize=8)
+    ax.set_yticklabels([f"{t - span:.0f}" for t in ticks], fontsize=8)
     # the gain labels along the bearing farthest from every target and local source, where no arrow crosses them
     marked = [t["bearing_deg"] for t in results.targets] + [s["bearing_deg"] for s in results.local_sources]
     ax.set_rlabel_position(
@@ -256,13 +278,13 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
     for i, (t, tl) in enumerate(zip(results.targets, target_looks(len(results.targets)))):
         ax.annotate(
             "",
-            xy=(np.radians(t["bearing_deg"]), FLOOR_SPAN_DB + 2),
+            xy=(np.radians(t["bearing_deg"]), span + 2),
             xytext=(0, 0),
             arrowprops={"arrowstyle": "->", "color": "black" if i == target_index else "0.6", "lw": 1.2},
         )
         ax.plot(
             [np.radians(t["bearing_deg"])],
-            [FLOOR_SPAN_DB + 2],
+            [span + 2],
             marker=tl.marker,
             ms=12,
             mfc="white",
@@ -273,7 +295,7 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
         )
         ax.text(
             np.radians(t["bearing_deg"]),
-            FLOOR_SPAN_DB + 6,
+            span + 6,
             f"{t['name']} {t['bearing_deg'] % 360.0:.0f}°",
             ha="center",
             va="center",
@@ -281,19 +303,29 @@ def azimuth_pattern(results, *, target_index: int = 0, ax=None):
             fontweight="bold" if i == target_index else "normal",
         )
     for s in results.local_sources:
-        ax.plot(
-            [np.radians(s["bearing_deg"])], [FLOOR_SPAN_DB], ls="none", label=f"noise: {s['name']}", **SOURCE_MARKER
-        )
+        ax.plot([np.radians(s["bearing_deg"])], [span], ls="none", label=f"noise: {s['name']}", **SOURCE_MARKER)
     ax.set_title(
-        f"Azimuth pattern at {el:.0f} deg elevation (gain, dBi; toward '{tgt['name']}')\n"
-        f"{results.site['name']}, {results.freq_hz / 1e6:g} MHz",
+        f"Azimuth pattern at {el:.0f} deg elevation toward '{tgt['name']}'\n{results.site['name']}, "
+        f"{results.freq_hz / 1e6:g} MHz\ndB relative to each antenna's own peak (the rim); its peak in dBi in the "
+        "legend",
         pad=28,
         y=1.0,  # placed, not moved above the decorations at the draw (which measures them once more)
     )
     ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8, frameon=False)
     if own:
-        _place(fig, left=0.6, right=1.9, top=1.1, bottom=0.9)  # a circle 5 in across, the legend to its right
+        _place(fig, left=0.6, right=2.9, top=1.1, bottom=0.9)  # a circle 5 in across, the legend to its right
     return fig
+
+
+def own_peak(cut) -> tuple[np.ndarray, float | None]:
+    """(the cut in dB relative to its own peak, the peak [dBi]) of a pattern cut [dBi]; the peak None (and the cut
+    all -inf) where no value is finite (no gain at all on it)."""
+    cut = np.asarray(cut, dtype=float)
+    finite = np.isfinite(cut)
+    if not finite.any():
+        return np.full(cut.shape, -np.inf), None
+    peak = float(np.max(cut[finite]))
+    return cut - peak, peak
 
 
 def elevation_pattern(results, *, target_index: int = 0, ax=None):
@@ -978,6 +1010,8 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     from matplotlib.patches import Circle
     from matplotlib.path import Path as MplPath
 
+    from snrgain.outputs.siteplan import beyond_plan
+
     own = ax is None
     fig, (ax,) = _axes(ax, figsize=(8.0, 8.0))
     unit, k = plan["unit"], plan["per_m"]
@@ -1015,8 +1049,16 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                 label=f"clearance of {plan['tx_name']}: {c * k:.0f} {unit} ({how})",
             )
         )
+    far = beyond_plan(plan)  # drawn at the plan's edge below, once its extent is the site's
+    beyond = {f["name"] for f in far}
     for name, pos in plan["sources"]:
-        ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
+        if name not in beyond:
+            ax.plot(*xy([pos]), ls="none", label=f"noise source: {name}", zorder=6, **SOURCE_MARKER)
+    mast = structure_marker()
+    for name, foot, height in plan.get("structures", []):
+        sx, sy = xy([foot])
+        ax.plot(sx, sy, ls="none", label=f"structure: {name}, {height * k:.0f} {unit} tall", zorder=6, **mast)
+        ax.annotate(name, (sx[0], sy[0]), xytext=(9, 0), textcoords="offset points", va="center", fontsize=8)
     for i, (name, run) in enumerate(plan.get("feed_lines", [])):  # dotted in the antenna's colour to the station
         fx, fy = xy(run)
         color = looks[name].color if name in looks else "0.3"
@@ -1069,6 +1111,7 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
                     zorder=5,
                 )
             label = None
+        _favoured_arrows(ax, a, lk, k)
     drawn = {a["name"] for a in plan["antennas"] if a["parts"]}
     if plan["tx"] is not None and plan.get("tx_name") not in drawn:  # a TX vertical with no position of its own
         lk = looks.get(plan.get("tx_name"))
@@ -1114,7 +1157,9 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     ax.grid(alpha=0.3)
     x_lo, x_hi = ax.get_xlim()
     y_lo, y_hi = ax.get_ylim()
-    fx, fy = _north_corner(_plan_points(plan, k), (x_lo, x_hi), (y_lo, y_hi))
+    marks = _at_the_edge(ax, far, k, unit) if far else []
+    points = np.vstack([_plan_points(plan, k, beyond), np.asarray(marks, dtype=float).reshape(-1, 2)])
+    fx, fy = _north_corner(points, (x_lo, x_hi), (y_lo, y_hi))
     ax.annotate(
         "N",
         xy=(fx, fy + 0.12 * (y_hi - y_lo)),
@@ -1124,7 +1169,12 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         fontweight="bold",
         arrowprops={"arrowstyle": "->", "lw": 2},
     )
-    ax.set_title(f"{title}\n(marker on a wire: its feed point; arrowhead: the favoured direction)", fontsize=10, y=1.0)
+    ax.set_title(
+        f"{title}\n(marker on a wire: its feed point; arrowheads: the bearing each antenna favours, one per state "
+        "of a\nswitched antenna, two opposite on a figure-eight; no arrowhead: no favoured bearing)",
+        fontsize=10,
+        y=1.0,
+    )
     entries = len(ax.get_legend_handles_labels()[1])
     ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
     if own:  # below the plot: its axis label, then the legend's rows
@@ -1132,9 +1182,117 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
     return fig
 
 
-def _plan_points(plan: dict, k: float) -> np.ndarray:
-    """Every point a plan draws (antennas, wires every few metres, sources, keep-outs, the vertical), scaled by
-    ``k`` to the plan's unit: (n, 2)."""
+FAVOURED_ARROW_PT = 24.0
+"""Length [pt] of the arrow that shows the bearing a compact antenna, an array or a combination favours."""
+
+
+def _favoured_arrows(ax, entry: dict, look, k: float) -> None:
+    """An arrow in the antenna's colour from where it stands toward each bearing it favours (``entry["bearings"]``
+    of :func:`snrgain.outputs.siteplan.plan_of`; one heard both ways: toward the opposite bearing too): from a
+    compact antenna's marker, a combination's unit, an array's front along that bearing (from its centre where its
+    elements stand across it).  A wire carries its own arrow along it."""
+    parts = [p for p in entry["parts"] if p["kind"] in ("point", "elements", "unit")]
+    bearings = list(entry.get("bearings") or [])
+    if not parts or not bearings or any(p["kind"] == "wire" for p in entry["parts"]):
+        return
+    part = parts[0]
+    pts = np.asarray(part["coords"], dtype=float) * k
+    centre = np.mean(pts, axis=0)
+    if entry.get("both_ways"):
+        bearings += [(b + 180.0) % 360.0 for b in bearings]
+    for b in bearings:
+        r = np.radians(b)
+        u = np.array([np.sin(r), np.cos(r)])
+        # from the array's front (its elements' farthest reach along the bearing), beyond its elements
+        front = float(np.max((pts - centre) @ u))
+        x, y = centre + front * u
+        shrink = 6.0 if part["kind"] == "point" or front > 1e-9 else 5.5 if part["kind"] == "unit" else 0.0
+        ax.annotate(
+            "",
+            xy=(x, y),
+            xytext=(FAVOURED_ARROW_PT * np.sin(r), FAVOURED_ARROW_PT * np.cos(r)),  # the plan's aspect is equal
+            textcoords="offset points",
+            arrowprops={
+                "arrowstyle": "<|-",  # the head at the far end
+                "color": look.color,
+                "lw": 1.8,
+                "mutation_scale": 14,
+                "shrinkA": 0.0,
+                "shrinkB": shrink,
+            },
+            zorder=5,
+        )
+
+
+EDGE_BAND = 0.12
+"""The band [fraction of the plan's width or height] added to the plan's side toward a source beyond it, where the
+source is marked."""
+
+
+def _at_the_edge(ax, far: list[dict], k: float, unit: str) -> list[tuple[float, float]]:
+    """Mark each source beyond the plan (:func:`snrgain.outputs.siteplan.beyond_plan`) in a band added to the plan's
+    side toward it, on the line from the site's middle toward it, with an arrow out to the frame and its name,
+    distance and bearing; the plan's extent is otherwise the site's (its limits are fixed here).  Returns the marks'
+    places."""
+    view = [*ax.get_xlim(), *ax.get_ylim()]  # x_lo, x_hi, y_lo, y_hi
+    span = (view[1] - view[0], view[3] - view[2])
+
+    def along(cx, cy, ux, uy, box):  # where the line from (cx, cy) along (ux, uy) leaves box, and by which side
+        x_lo, x_hi, y_lo, y_hi = box
+        ts = []
+        if ux:
+            ts.append((((x_hi if ux > 0 else x_lo) - cx) / ux, 1 if ux > 0 else 0))
+        if uy:
+            ts.append((((y_hi if uy > 0 else y_lo) - cy) / uy, 3 if uy > 0 else 2))
+        t, side = min(ts)
+        return (cx + max(t, 0.0) * ux, cy + max(t, 0.0) * uy), side
+
+    rays = []
+    for f in far:
+        r = np.radians(f["bearing_deg"])
+        rays.append((f, f["from"][0] * k, f["from"][1] * k, float(np.sin(r)), float(np.cos(r))))
+    sides = {along(cx, cy, ux, uy, view)[1] for _, cx, cy, ux, uy in rays}
+    outer, middle = list(view), list(view)
+    for side in sides:  # the band on each side a source lies beyond
+        out = 1.0 if side % 2 else -1.0
+        outer[side] += out * EDGE_BAND * span[side // 2]
+        middle[side] += out * 0.45 * EDGE_BAND * span[side // 2]
+    ax.set_xlim(outer[0], outer[1])  # fixed: nothing drawn after widens the plan
+    ax.set_ylim(outer[2], outer[3])
+    frame = [outer[0] + 0.005 * span[0], outer[1] - 0.005 * span[0], outer[2] + 0.005 * span[1]]
+    frame.append(outer[3] - 0.005 * span[1])
+    marks = []
+    for f, cx, cy, ux, uy in rays:
+        (mx, my), _ = along(cx, cy, ux, uy, middle)
+        said = f"{f['name']}, {f['distance_m'] * k:.0f} {unit} at {f['bearing_deg']:.0f} deg"
+        ax.plot(
+            [mx], [my], ls="none", label=f"noise source beyond the plan: {said} from the site's middle", zorder=6,
+            **SOURCE_MARKER,
+        )  # fmt: skip
+        ax.annotate(
+            "",
+            xy=along(cx, cy, ux, uy, frame)[0],
+            xytext=(mx, my),
+            arrowprops={"arrowstyle": "-|>", "color": "black", "lw": 1.5, "mutation_scale": 14, "shrinkA": 6.0},
+            zorder=6,
+        )
+        ax.annotate(  # beside the mark, toward the plan's inside
+            said,
+            (mx, my),
+            xytext=(-10.0 * ux, -10.0 * uy),
+            textcoords="offset points",
+            ha="right" if ux > 0.3 else "left" if ux < -0.3 else "center",
+            va="top" if uy > 0.3 else "bottom" if uy < -0.3 else "center",
+            fontsize=8,
+            zorder=6,
+        )
+        marks.append((mx, my))
+    return marks
+
+
+def _plan_points(plan: dict, k: float, beyond=()) -> np.ndarray:
+    """Every point a plan draws (antennas, wires every few metres, sources but those ``beyond`` it, keep-outs,
+    structures, the vertical), scaled by ``k`` to the plan's unit: (n, 2)."""
     pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
     for a in plan["antennas"]:
         for p in a["parts"]:
@@ -1142,7 +1300,8 @@ def _plan_points(plan: dict, k: float) -> np.ndarray:
                 (e0, n0), (e1, n1) = p["coords"][0], p["coords"][-1]
                 t = np.linspace(0.0, 1.0, 40)
                 pts += list(zip(e0 + t * (e1 - e0), n0 + t * (n1 - n0)))
-    pts += [xy for _, xy in plan.get("sources", [])] + [c for _, cs in plan.get("keep_out", []) for c in cs]
+    pts += [xy for name, xy in plan.get("sources", []) if name not in beyond]
+    pts += [c for _, cs in plan.get("keep_out", []) for c in cs] + [foot for _, foot, _ in plan.get("structures", [])]
     pts += [plan["tx"]] if plan.get("tx") is not None else []
     return np.asarray(pts, dtype=float).reshape(-1, 2) * k
 

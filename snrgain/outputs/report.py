@@ -337,8 +337,12 @@ def figure_makers(r, *, plan: dict | None = None) -> list[tuple[str, object, str
             (
                 f"Azimuth pattern toward {t['name']}",
                 partial(plots.azimuth_pattern, r, target_index=i),
-                "Gain of each antenna at the target's elevation (one colour per antenna, one line style and marker per "
-                "family, as in every figure); arrows and hollow marks show targets, black crosses local noise sources.",
+                "Each antenna's gain at the target's elevation in dB relative to its own peak on that cut (0 dB at "
+                f"the rim, the floor {plots.AZIMUTH_SPAN_DB:g} dB below), its peak gain in dBi in the legend, so "
+                "that patterns of very different gain compare by shape (the SNR gain does not depend on the "
+                "absolute gain; the elevation pattern shows it in dBi); one colour per antenna, one line style and "
+                "marker per family, as in every figure; arrows and hollow marks show targets, black crosses local "
+                "noise sources.",
             )
         )
         figs.append(

@@ -3,8 +3,10 @@
 
 :func:`plan_of` returns a JSON-like dict (plan coordinates [m east, m north] inside; the unit to show them in at
 the edge): the lot, the keep-out areas, the transmitting vertical and its clearance, the placed noise sources, the
-feed lines' runs, every antenna as built (a wire from its feed point, an array's elements, a combination drawn
-between its members and joined to each), the lengths of wire off the lot and the points where wires cross.
+feed lines' runs, the structures that re-radiate (``[site] structures``), every antenna as built (a wire from its
+feed point, an array's elements, a combination drawn between its members and joined to each) with the bearings it
+favours, the lengths of wire off the lot and the points where wires cross.  :func:`beyond_plan` tells which placed
+sources lie so far off the site that the plan marks them at its edge instead.
 ``snrgain layout`` passes the placed designs, which replace those candidates' positions.
 
 The unit is the scenario's (:func:`snrgain.units.length_unit_of`: ``[site] units``, else the unit its lengths mostly
@@ -48,6 +50,13 @@ def _antenna_parts(ant, design=None) -> list[dict]:
     return [_part("point", shape.coords)]
 
 
+def _favoured(ant) -> list[float]:
+    """The bearing an antenna is built to favour [deg, 0..360), as a list (empty for one with no bearing: a vertical,
+    a table of gains, wires modelled as written)."""
+    b = getattr(getattr(ant, "params", None), "bearing", None)
+    return [] if b is None else [round(float(np.degrees(b)) % 360.0, 6)]
+
+
 def _fold_switched(ants, entries) -> None:
     """The states of one switched antenna that stand as one on the plan (the same elements or point: an array
     steered to each bearing, a loop turned) drawn once: the first state's entry takes ``shown_as``, the antenna's
@@ -65,6 +74,7 @@ def _fold_switched(ants, entries) -> None:
             continue
         short = [re.sub(r" \([-\d.]+ deg\)$", "", label) for label in st.states]  # "NE (45 deg)": "NE"
         es[0]["shown_as"] = f"{group} (switched: {', '.join(short)})"
+        es[0]["bearings"] = [b for e in es for b in e["bearings"]]  # each state's favoured bearing
         for e in es[1:]:
             e["parts"] = []
 
@@ -89,6 +99,11 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
             "note": gains.get(ant.name),
             "parts": _antenna_parts(ant, placed.get(ant.name)),
             "members": [],
+            # the bearing it favours (a placed design's where layout turns it), and whether it hears both ways
+            "bearings": _favoured(ant)
+            if ant.name not in placed or placed[ant.name].bearing_rad is None
+            else [round(float(np.degrees(placed[ant.name].bearing_rad)) % 360.0, 6)],
+            "both_ways": bool(getattr(ant, "both_ways", False)),
         }
         if ant.composite:
             entry["members"] = [p.name for p in getattr(ant, "elements", None) or ()]
@@ -134,6 +149,10 @@ def plan_of(sc, *, data: dict | None = None, designs=(), gains: dict | None = No
         else None,
         "clearance_given": getattr(site, "tx_clearance_m", None) is not None,
         "sources": [(s.name, tuple(map(float, s.position_m))) for s in sc.noise.local if s.position_m is not None],
+        # (name, foot [m east, m north], height [m]) of each structure that re-radiates
+        "structures": [
+            (st.name, tuple(map(float, st.position)), float(st.height)) for st in getattr(site, "structures", ())
+        ],
         "feed_lines": [  # the coax runs (a candidate's feed_line), from where the antenna stands to the station entry
             (n, [(placed[n].east_m, placed[n].north_m) if n in placed else fl.start_m, fl.end_m])
             for n, fl in getattr(sc, "feed_lines", {}).items()
@@ -194,6 +213,8 @@ def plan_from_results(results) -> dict:
                 "note": None,
                 "parts": parts,
                 "members": list(p.get("antennas") or []),
+                "bearings": [] if p.get("bearing_deg") is None else [float(p["bearing_deg"]) % 360.0],
+                "both_ways": bool((getattr(a, "build", None) or {}).get("both_ways", False)),
             }
         )
     where = {a["name"]: a for a in antennas}
@@ -213,6 +234,7 @@ def plan_from_results(results) -> dict:
         "clearance_m": None,
         "clearance_given": False,
         "sources": [],
+        "structures": [],
         "antennas": antennas,
         "off_lot": [],
         "crossings": [],
@@ -223,3 +245,53 @@ def has_plan(plan: dict) -> bool:
     """Whether there is anything to draw: a lot, or an antenna with a place on it (an array's element positions
     alone may be relative to the array, not places on a plan)."""
     return bool(plan.get("lot") or any(p["kind"] in ("wire", "point") for a in plan["antennas"] for p in a["parts"]))
+
+
+FAR_SIDES = 0.5
+"""A placed source lies beyond the plan when it stands farther from the site's box (:func:`site_box`) than this
+many times the box's longer side (at least :data:`FAR_MIN_M`): drawn where it stands it would shrink the site into
+a corner of the plan."""
+FAR_MIN_M = 20.0
+"""The least distance off the site's box [m] at which a placed source is drawn at the plan's edge."""
+
+
+def site_box(plan: dict) -> tuple[float, float, float, float] | None:
+    """(east min, north min, east max, north max) [m] of what the plan draws on the site: the lot, the keep-outs,
+    the antennas, the feed lines, the structures and the transmitting vertical (not the placed noise sources);
+    None where it holds none of them."""
+    pts = [c for a in plan["antennas"] for p in a["parts"] for c in p["coords"]]
+    pts += list(plan.get("lot") or []) + [c for _, cs in plan.get("keep_out", []) for c in cs]
+    pts += [c for _, run in plan.get("feed_lines", []) for c in run]
+    pts += [foot for _, foot, _ in plan.get("structures", [])]
+    pts += [plan["tx"]] if plan.get("tx") is not None else []
+    if not pts:
+        return None
+    arr = np.asarray(pts, dtype=float).reshape(-1, 2)
+    return (*arr.min(axis=0), *arr.max(axis=0))
+
+
+def beyond_plan(plan: dict) -> list[dict]:
+    """The placed sources that lie far off the site (:data:`FAR_SIDES`), each ``{"name", "at" (its place [m]),
+    "from" (the middle of the site's box [m]), "bearing_deg", "distance_m"}`` (bearing and distance from that
+    middle): the plan is drawn to the site's extent and these at its edge, toward where they stand."""
+    box = site_box(plan)
+    if box is None:
+        return []
+    e0, n0, e1, n1 = box
+    far = max(FAR_SIDES * max(e1 - e0, n1 - n0), FAR_MIN_M)
+    mid = (0.5 * (e0 + e1), 0.5 * (n0 + n1))
+    out = []
+    for name, (e, n) in plan.get("sources", []):
+        off = float(np.hypot(max(e0 - e, 0.0, e - e1), max(n0 - n, 0.0, n - n1)))  # from the box; 0 inside
+        if off > far:
+            de, dn = e - mid[0], n - mid[1]
+            out.append(
+                {
+                    "name": name,
+                    "at": (float(e), float(n)),
+                    "from": mid,
+                    "bearing_deg": float(np.degrees(np.arctan2(de, dn)) % 360.0),
+                    "distance_m": float(np.hypot(de, dn)),
+                }
+            )
+    return out

@@ -11,6 +11,8 @@ report, so that figures read side by side agree.
 - Targets: never an antenna colour.  Each target is drawn in black and white with its own hatch pattern (areas,
   bars) and its own hollow marker, from sets disjoint from the families' markers.
 - Placed noise sources: a black cross ("X") with a white edge, everywhere.
+- Structures that re-radiate (``[site] structures``: a tower, a mast): a hollow lattice mast in dark grey, drawn
+  only on the site plan, with its name beside it (never filled, never an antenna colour or a family marker).
 
 Looks are keyed by name; :func:`antenna_looks` takes the names and families in the scenario's order (the
 reference first), as :meth:`snrgain.model.results.Results.to_xarray` lists them.
@@ -57,6 +59,29 @@ FAMILY_MARKERS = ("o", "s", "^", "D", "v", "P", "p", "8")
 TARGET_HATCHES = ("//", "\\\\", "xx", "..", "++", "oo", "--", "||")
 TARGET_MARKERS = ("*", "d", "H", ">", "<", "1", "2", "3")
 SOURCE_MARKER = {"marker": "X", "color": "black", "markeredgecolor": "white", "markeredgewidth": 1.0, "ms": 11}
+STRUCTURE_COLOR = "0.25"
+"""The structures' grey (darker than the keep-outs' fill, so a mast on a keep-out still shows)."""
+
+
+def structure_marker() -> dict:
+    """Keyword arguments for ``Axes.plot`` that draw a structure's mark: a hollow lattice mast (two legs meeting at
+    the top, two cross-pieces and their braces), in :data:`STRUCTURE_COLOR`.  Made when drawn (matplotlib's Path)."""
+    from matplotlib.path import Path
+
+    legs = [(-0.45, -1.0), (0.0, 1.0), (0.45, -1.0)]
+    bars = [((-0.3, -0.33), (0.3, -0.33)), ((-0.15, 0.33), (0.15, 0.33))]
+    braces = [((-0.45, -1.0), (0.3, -0.33)), ((0.45, -1.0), (-0.3, -0.33))]
+    braces += [((-0.3, -0.33), (0.15, 0.33)), ((0.3, -0.33), (-0.15, 0.33))]
+    verts = legs + [p for seg in bars + braces for p in seg]
+    codes = [Path.MOVETO, Path.LINETO, Path.LINETO] + [Path.MOVETO, Path.LINETO] * (len(bars) + len(braces))
+    return {
+        "marker": Path(verts, codes),
+        "color": STRUCTURE_COLOR,
+        "markerfacecolor": "none",
+        "markeredgecolor": STRUCTURE_COLOR,
+        "markeredgewidth": 1.5,
+        "ms": 18,
+    }
 
 
 @record
