@@ -439,8 +439,18 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         return best_resistor(figure, self.auto_terminations_ohm)
 
     def termination_pattern(self, freq_hz: float):
-        """pattern(az, el, r): the power pattern with a termination r [ohm] (see longwire.termination_figure)."""
-        return lambda az, el, r: self._gain(freq_hz, az, el, float(r))
+        """pattern(az, el, r): the power pattern with a termination r [ohm] (see longwire.termination_figure); r may
+        be an array of resistors (the result then (resistors, directions): every current formula is elementwise in
+        the load, so one pass of the wave serves them all)."""
+
+        def pattern(az, el, r):
+            r = np.asarray(r, dtype=float)
+            if r.ndim == 0:
+                return self._gain(freq_hz, az, el, float(r))
+            return self._gain(freq_hz, az, el, r.reshape(-1, 1))
+
+        pattern.vectorised = True
+        return pattern
 
     def matched_termination_ohm(self, freq_hz: float) -> float:
         """|Z0| of the loop's line, sqrt(L / C) of the whole loop [ohm] (the resistor that would match it)."""
@@ -456,6 +466,11 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
         """The coax referred through the transformer, whose 'auto' ratio follows the termination tried [ohm]."""
         n = self.params.turns_ratio
         if n == "auto":
+            if np.ndim(termination_ohm):  # several resistors at once (termination_pattern)
+                line = self.line(freq_hz)
+                t = np.tanh(line.gamma * self.width_m)
+                z = line.z0 * (termination_ohm + line.z0 * t) / (line.z0 + termination_ohm * t)  # lines.input_impedance
+                return np.abs(z)  # n^2 coax with n = sqrt(|Z| / coax)
             n = np.sqrt(abs(self._feed_impedance(freq_hz, termination_ohm)) / self.params.coax)
         return float(n) ** 2 * self.params.coax
 
