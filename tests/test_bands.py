@@ -328,3 +328,14 @@ def test_one_resistor_that_costs_no_band_anything_is_simply_built():
     assert "switch the resistor per band (a relay at the far end)" in notice_text(
         Notice("resistor-per-band", "BOG Japan", values)
     )
+
+
+def test_a_wire_serving_several_bands_is_told_to_shrink_only_where_every_band_agrees(bands):
+    # A reviewer: the 40 m band told BOG Japan, which the plan builds for 80 m too, to shrink from 90 m to 47 m; at
+    # 47 m its 80 m gain fell from 6.5 to 5.1 dB.  A file of the 40 m band alone still says it (there the wire serves
+    # 40 m only); the plan across bands, where it serves 80 m too, does not.
+    alone = snrgain.evaluate(_single_band_text("40 m", "7.03 MHz", "[22, 0, 2, 4]", ("Europe", "Japan")))
+    assert [n for n in alone.notices if n.code == "wire-too-long" and n.antenna == "BOG Japan"]
+    served = {sv.antenna for services in bands.plan.by_target.values() for sv in services}
+    assert "BOG Japan" in served
+    assert not [n for _, r in bands.bands for n in r.notices if n.code == "wire-too-long" and n.antenna == "BOG Japan"]
