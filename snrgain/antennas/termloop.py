@@ -465,14 +465,10 @@ class TerminatedLoop(SkyTermination, TransformerFeed, Antenna):
     def _load_ohm(self, freq_hz: float, termination_ohm: float) -> float:
         """The coax referred through the transformer, whose 'auto' ratio follows the termination tried [ohm]."""
         n = self.params.turns_ratio
-        if n == "auto":
-            if np.ndim(termination_ohm):  # several resistors at once (termination_pattern)
-                line = self.line(freq_hz)
-                t = np.tanh(line.gamma * self.width_m)
-                z = line.z0 * (termination_ohm + line.z0 * t) / (line.z0 + termination_ohm * t)  # lines.input_impedance
-                return np.abs(z)  # n^2 coax with n = sqrt(|Z| / coax)
-            n = np.sqrt(abs(self._feed_impedance(freq_hz, termination_ohm)) / self.params.coax)
-        return float(n) ** 2 * self.params.coax
+        if n == "auto":  # (several resistors at once give several loads: termination_pattern)
+            n = np.sqrt(np.abs(self._feed_impedance(freq_hz, termination_ohm)) / self.params.coax)
+        n = np.asarray(n, dtype=float)
+        return float(n) ** 2 * self.params.coax if n.ndim == 0 else n**2 * self.params.coax
 
     def _response(self, freq_hz, azimuth_rad, elevation_rad, termination_ohm: float):
         w = plane_wave(freq_hz, azimuth_rad, elevation_rad, bearing_rad=self.line_bearing_rad, ground=self.ground)

@@ -68,6 +68,42 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
     return plan, tuple(columns)
 
 
+def served_bands(plan: Plan, columns) -> dict[str, set[str]]:
+    """Each antenna of the plan across bands -> the bands on which it serves a target."""
+    served: dict[str, set[str]] = {}
+    for c, services in plan.by_target.items():
+        for sv in services:
+            served.setdefault(sv.antenna, set()).add(columns[c][0])
+    return served
+
+
+def across_bands(bands, plan: Plan, columns) -> tuple[list, list[Notice]]:
+    """(bands, notices): what holds across the bands (:func:`resistor_notices`), and each band's Results without the
+    warnings the plan across bands answers instead.  A wire built once for several bands gets one weighed answer for
+    its resistor, not a band's own fragile-resistor warning naming another resistor for each band; and it is told to
+    be shorter only where every band it serves says so (a wire shortened for 40 m lost 1.4 dB on the 80 m it served
+    too)."""
+    from dataclasses import replace
+
+    across = resistor_notices(bands, plan, columns)
+    once = {n.antenna for n in across}
+    served = served_bands(plan, columns)
+    too_long = {
+        (band, n.antenna) for band, r in bands for n in r.notices if n.code == "wire-too-long" and n.antenna in served
+    }
+    partly = {a for _, a in too_long if not all((b, a) in too_long for b in served[a])}
+
+    def kept(n):
+        return not (
+            (n.code == "termination-fragile" and n.antenna in once)
+            or (n.code == "wire-too-long" and n.antenna in partly)
+        )
+
+    if once or partly:
+        bands = [(band, replace(r, notices=[n for n in r.notices if kept(n)])) for band, r in bands]
+    return list(bands), across
+
+
 def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
     """``resistor-per-band`` (bands: [{band, termination_ohm, criterion, target, at_search_bound, loss_db,
     front_to_back_db}], common_ohm, common_standard_ohm, worst_db, worst_band, safer: None or {ohm, standard_ohm,
@@ -77,12 +113,8 @@ def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:
     every band searched) is given with what it costs on each, beside each band's own; where it gives up the rear
     null for little on a band against |Z0| less the far ground (snrgain.decide.decisions.trades_front_to_back, the
     fragile resistor's test), that one is offered as the safer build with what it costs (``safer``)."""
-    served: dict[str, set[str]] = {}
-    for c, services in plan.by_target.items():
-        for sv in services:
-            served.setdefault(sv.antenna, set()).add(columns[c][0])
     out = []
-    for name, on in served.items():
+    for name, on in served_bands(plan, columns).items():
         answers = []
         for band, r in bands:
             if band not in on:

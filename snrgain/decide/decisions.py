@@ -437,14 +437,11 @@ def wire_too_long_notices(sc: Scenario) -> list[Notice]:
             continue
         coarse = upper_hemisphere(16) if coarse is None else coarse
         given = getattr(ant.params, "termination", "auto") != "auto" and getattr(ant, "sky_termination", None) is None
-        if "termination" in type(ant.params).model_fields and not given:  # each length with its own best resistor
+        by_rdf = "termination" in type(ant.params).model_fields and not given  # each length its own best resistor
+        resistor = {"termination": "auto", "auto_for": "rdf"} if by_rdf else {}  # a user's resistor (or none) as given
 
-            def trial(x, ant=ant):
-                return variant(ant, length=float(x), termination="auto", auto_for="rdf")
-        else:  # a resistor the user gave (or none) stays as given
-
-            def trial(x, ant=ant):
-                return variant(ant, length=float(x))
+        def trial(x, ant=ant, resistor=resistor):
+            return variant(ant, length=float(x), **resistor)
 
         lengths = np.geomspace(0.3 * ant.length_m, ant.length_m, 12)
         rdf = [rdf_db(trial(x), sc.freq_hz, t, coarse) for x in lengths]
@@ -467,7 +464,7 @@ def wire_too_long_notices(sc: Scenario) -> list[Notice]:
                     "best_rdf_db": float(best),
                     "target": t.name,
                     "velocity_factor": vf,
-                    "resistor": "given" if given or "termination" not in type(ant.params).model_fields else "rdf",
+                    "resistor": "rdf" if by_rdf else "given",
                 },
             )
         )

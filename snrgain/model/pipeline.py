@@ -95,37 +95,14 @@ def evaluate_bands(
     Each band is loaded and evaluated as a single-band file of it would be (:func:`evaluate`), so its answer is
     that file's; problems name their band.  Returns :class:`snrgain.model.bands.BandResults`.  A file of one band
     gives one entry, named by its frequency."""
-    from snrgain.decide.bandplan import plan_across_bands, resistor_notices
+    from snrgain.decide.bandplan import across_bands, plan_across_bands
     from snrgain.model.bands import BandResults
     from snrgain.scenario import load_bands
 
     loaded = load_bands(source, nside=nside, p372_dir=p372_dir, reference=reference)
     out = [(band, evaluate(sc, allow_long=allow_long)) for band, sc in loaded]
     plan, columns = plan_across_bands(out)
-    across = resistor_notices(out, plan, columns)
-    # a wire built once for several bands gets one weighed answer (resistor-per-band), not a band's own warning that
-    # its resistor there is fragile, which names another resistor for each band
-    once = {n.antenna for n in across}
-    # and is told to be shorter only where it is so on every band it serves (a wire shortened for 40 m lost 1.4 dB
-    # on the 80 m it serves too)
-    served: dict[str, set[str]] = {}
-    for c, services in plan.by_target.items():
-        for sv in services:
-            served.setdefault(sv.antenna, set()).add(columns[c][0])
-    too_long = {
-        (band, n.antenna) for band, r in out for n in r.notices if n.code == "wire-too-long" and n.antenna in served
-    }
-    partly = {a for _, a in too_long if not all((b, a) in too_long for b in served[a])}
-    if once or partly:
-        from dataclasses import replace
-
-        def kept(n):
-            return not (
-                (n.code == "termination-fragile" and n.antenna in once)
-                or (n.code == "wire-too-long" and n.antenna in partly)
-            )
-
-        out = [(band, replace(r, notices=[n for n in r.notices if kept(n)])) for band, r in out]
+    out, across = across_bands(out, plan, columns)
     return BandResults(tuple(out), plan, columns, across)
 
 

@@ -373,11 +373,13 @@ def max_effective_length_m(wavelength_m: float, *, velocity_factor: float, eleva
 
 
 def input_impedance(line: LineConstants, *, length_m: float, load_ohm: complex | None) -> complex:
-    """Impedance looking into a line of length L ending in ``load_ohm`` (None: open) [ohm]."""
+    """Impedance looking into a line of length L ending in ``load_ohm`` (None: open) [ohm]; an array of loads gives
+    an array of impedances."""
     t = np.tanh(line.gamma * length_m)
     if load_ohm is None:
         return complex(line.z0 / t)
-    return complex(line.z0 * (load_ohm + line.z0 * t) / (line.z0 + load_ohm * t))
+    z = line.z0 * (load_ohm + line.z0 * t) / (line.z0 + load_ohm * t)
+    return complex(z) if np.ndim(z) == 0 else z
 
 
 def mismatch_factor(z_source: complex, z_load: complex) -> float:
