@@ -42,6 +42,12 @@ from snrgain.cli.options import (
     default=None,
     help="Write to this file instead of standard output (whole or not at all).",
 )
+@click.option(
+    "--all-warnings",
+    is_flag=True,
+    help="Say every warning, also those on candidates the station plan does not build (their preamplifier, "
+    "resistor, length or phasing lines); by default those are counted in one line.",
+)
 @overwrite_option
 @allow_long_option
 @nside_option
@@ -49,7 +55,7 @@ from snrgain.cli.options import (
 @reference_option
 @band_option
 @handle_errors
-def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, reference, band):
+def rank(scenario, fmt, build, all_warnings, output, overwrite, allow_long, nside, p372_dir, reference, band):
     """Which antenna to build for each target of SCENARIO, and how much better than its reference.
 
     SNR gain is (S/N of the candidate) / (S/N of the reference) toward a
@@ -66,6 +72,7 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
     from snrgain.cli.options import band_names, load_scenario, progress
     from snrgain.model.pipeline import evaluate, evaluate_bands
     from snrgain.outputs import output as out
+    from snrgain.outputs.messages import apart_text
 
     check_output(output, overwrite=overwrite)
     fmt = check_suffix(output, fmt, {"json": (".json",), "csv": (".csv",), "table": (".txt",)})
@@ -88,8 +95,12 @@ def rank(scenario, fmt, build, output, overwrite, allow_long, nside, p372_dir, r
         else:
             sc = load_scenario(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
             results = evaluate(sc, allow_long=allow_long)
-    for w in results.warnings:
+    said, apart = (results.warnings, {}) if all_warnings else results.warnings_apart()
+    for w in said:
         click.echo(f"warning: {w}", err=True)
+    if apart:
+        where = "--all-warnings says them" + ("" if fmt == "json" else "; --format json holds every warning")
+        click.echo(f"note: {apart_text(apart, where)}", err=True)
     if fmt == "json":
         text = out.to_json(results)
     elif fmt == "csv":

@@ -47,6 +47,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     from snrgain.outputs import plots
     from snrgain.outputs import report as rep
     from snrgain.outputs.drawing import Drawer
+    from snrgain.outputs.messages import apart_text
 
     check_output(output, overwrite=overwrite)
     if output not in (None, "-") and Path(output).suffix.lower() not in (".html", ".htm", ""):
@@ -57,8 +58,11 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
             early = _Ahead(drawer, "svg", rep.SVG_OPTIONS, plots.FIGURES, sc, plan)
             results = _evaluated(sc, allow_long, observe=early)
-        for w in results.warnings:
+        said, apart = results.warnings_apart()
+        for w in said:
             click.echo(f"warning: {w}", err=True)
+        if apart:
+            click.echo(f"note: {apart_text(apart, 'the report says them under its rankings')}", err=True)
 
         light = plots.for_drawing(results)  # what the figures' process needs of the results (a tenth of them)
 

@@ -32,11 +32,30 @@ class BandResults:
         """Every band's warnings, each marked with its band; one said word for word in several bands (a whip's
         overload by the same station) once, marked with all of them, where it was first said; then what holds across
         the bands (``notices``)."""
+        return self._marked([(name, r.warnings) for name, r in self.bands])
+
+    def warnings_apart(self) -> tuple[list[str], dict[str, int]]:
+        """(said, apart): :attr:`warnings` but those on candidates the plan across the bands does not build (each
+        band's :meth:`Results.notices_apart` against that plan), counted by antenna instead (its name: how many, over
+        every band)."""
+        from snrgain.model.results import apart_counts
+        from snrgain.outputs.messages import notice_text
+
+        per_band, counts = [], {}
+        for name, r in self.bands:
+            built = None if self.plan is None else r.built_names(self.plan.antennas)
+            said, apart = r.notices_apart(built)
+            unit = r.site.get("length_unit", "m")
+            per_band.append((name, [notice_text(n, unit=unit) for n in said]))
+            apart_counts(r, apart, counts)
+        return self._marked(per_band), counts
+
+    def _marked(self, per_band: list[tuple[str, list[str]]]) -> list[str]:
         from snrgain.outputs.messages import notice_text
 
         bands_of: dict[str, list[str]] = {}
-        for name, r in self.bands:
-            for w in r.warnings:
+        for name, texts in per_band:
+            for w in texts:
                 names = bands_of.setdefault(w, [])
                 if name not in names:
                     names.append(name)

@@ -239,6 +239,7 @@ def antenna_results(sc: Scenario, nominal: Products, skies: noisemod.SkySeries, 
                 build={} if k == 0 else _with_feed_line(build_sheet(ant, sc.freq_hz, cable=ch.cable), sc, nominal, k),
                 group=None if switched_state(ant) is None else switched_state(ant).group,
                 state=None if switched_state(ant) is None else switched_state(ant).state,
+                parts=tuple(e.name for e in ant.elements) if ant.composite else (),
             )
         )
     return out

@@ -23,6 +23,24 @@ from snrgain.units import signed_text
 
 SCHEMA_VERSION = "3"
 
+ADVISORY_CODES = frozenset(
+    {
+        "receiver-limited",
+        "termination-fragile",
+        "termination-off-target",
+        "wire-too-long",
+        "phasing-tolerance",
+        "source-position",
+        "feed-line-cost",
+        "local-source-dominates",
+        "far-ground-too-high",
+    }
+)
+"""Notice codes that weigh one candidate's own figures or build (a preamplifier it needs, its resistor, its length,
+its phasing lines' precision, its feed line, what its noise rests on): of a candidate the station plan does not build
+they are set apart (:meth:`Results.notices_apart`).  Every other notice (the site, the lot, strong signals, an
+input that disagrees with itself, an array pointing away from its bearing) is always said."""
+
 
 @record
 class AntennaResult:
@@ -88,6 +106,8 @@ class AntennaResult:
     """The switched antenna this is one state of (the name written on the candidate; ``directions``), else None."""
     state: str | None = None
     """The state's label within its group, e.g. "NE (45 deg)"; None for an antenna that is not switched."""
+    parts: tuple[str, ...] = ()
+    """The names of the scenario's antennas a phasing unit combines (built with it); () for any other antenna."""
     preamp_best_effort: dict[str, Any] | None = None
 
     def __repr__(self) -> str:
@@ -203,6 +223,49 @@ class Results:
         from snrgain.outputs.messages import notice_text
 
         return [notice_text(n, unit=self.site.get("length_unit", "m")) for n in self.notices]
+
+    def warnings_apart(self) -> tuple[list[str], dict[str, int]]:
+        """(said, apart): :attr:`warnings` but those on candidates the station plan does not build
+        (:meth:`notices_apart`), which are counted by antenna instead (its name: how many)."""
+        from snrgain.outputs.messages import notice_text
+
+        said, apart = self.notices_apart(self.built_names())
+        return [notice_text(n, unit=self.site.get("length_unit", "m")) for n in said], apart_counts(self, apart)
+
+    def built_names(self, plan_antennas=None) -> frozenset[str] | None:
+        """The names of what the station plan builds (``plan_antennas``: another plan's antennas, a plan across
+        bands'; default this run's own plan): its antennas, every state of a switched one (and its own name) and a
+        phasing unit's parts; None without a plan."""
+        if plan_antennas is None:
+            if self.plan is None:
+                return None
+            plan_antennas = self.plan.antennas
+        names = set(plan_antennas)
+        built = set(names)
+        for c in self.candidates:
+            if c.name in names or (c.group is not None and c.group in names):
+                built.add(c.name)
+                built.update(c.parts)
+        return frozenset(built)
+
+    def notices_apart(self, built: frozenset[str] | None) -> tuple[list[Notice], list[Notice]]:
+        """(said, apart): the notices, with those weighing the figures or the build of a candidate the plan does not
+        build (``built``: :meth:`built_names`; codes :data:`ADVISORY_CODES`) apart; none apart where ``built`` is
+        None.  Nothing is dropped: the run's table says the first and counts the second (--all-warnings says them)."""
+        if built is None:
+            return list(self.notices), []
+        said, apart = [], []
+        for n in self.notices:
+            unbuilt = n.antenna is not None and n.antenna != self.reference.name and n.antenna not in built
+            (apart if unbuilt and n.code in ADVISORY_CODES else said).append(n)
+        return said, apart
+
+    def shown_name(self, name: str) -> str:
+        """How a notice's antenna is counted when set apart: a switched antenna's state by its antenna's name."""
+        for c in self.candidates:
+            if c.name == name and c.group is not None:
+                return c.group
+        return name
 
     def antenna(self, name: str) -> AntennaResult:
         """The antenna (reference or candidate) of that name."""
@@ -354,6 +417,16 @@ class Results:
 
     def _plan_dict(self) -> dict[str, Any]:
         return plan_to_dict(self.plan, "by_target", lambda t: {"target": self.targets[t]["name"]})
+
+
+def apart_counts(results: Results, apart: list[Notice], counts: dict[str, int] | None = None) -> dict[str, int]:
+    """The notices set apart (:meth:`Results.notices_apart`) counted by antenna (:meth:`Results.shown_name`), added to
+    ``counts`` where given; in the order first met."""
+    counts = {} if counts is None else counts
+    for n in apart:
+        name = results.shown_name(n.antenna)
+        counts[name] = counts.get(name, 0) + 1
+    return counts
 
 
 def plan_to_dict(p, rows_key: str, where) -> dict[str, Any]:

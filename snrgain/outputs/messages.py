@@ -110,6 +110,19 @@ def choke_text(ohm: float) -> str:
     return f"about {significant_text(float(f'{float(ohm):.2g}'), 2)} ohm"
 
 
+def apart_text(counts: dict[str, int], where: str) -> str:
+    """The one line that counts the warnings set apart (on candidates the station plan does not build:
+    snrgain.model.results.Results.notices_apart), by antenna; ``where`` says where they are said in full.
+
+    >>> apart_text({"flag pair": 3, "BOG Japan": 1}, "see below")
+    '4 more warnings on candidates the station plan does not build (flag pair: 3, BOG Japan: 1); see below'
+    """
+    total = sum(counts.values())
+    each = ", ".join(f"{name}: {k}" for name, k in counts.items())
+    what = "warning" if total == 1 else "warnings"
+    return f"{total} more {what} on candidates the station plan does not build ({each}); {where}"
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""

@@ -84,17 +84,19 @@ def band_plan_text(br):
 
 
 def bands_table(br, *, build: bool = False):
-    """A rich renderable for a scenario of several bands: each band's ranking as a single-band run prints it,
-    under the band's name, then the station plan across the bands."""
+    """A rich renderable for a scenario of several bands: each band's ranking as a single-band run prints it, under
+    the band's name, its plan headed as that band's alone; then the station plan across the bands (what to build)
+    and what the columns mean, once."""
     from rich.console import Group
     from rich.rule import Rule
 
     parts = []
     for name, r in br.bands:
         parts.append(Rule(f"{name}: {r.freq_hz / 1e6:g} MHz", align="left"))
-        parts.append(ranking_table(r, build=build))
+        parts.append(ranking_table(r, build=build, plan_label=f"Station plan for {name} alone", legend=False))
     parts.append(Rule("every band", align="left"))
     parts.append(band_plan_text(br))
+    parts.append(columns_legend())
     return Group(*parts)
 
 
@@ -377,15 +379,16 @@ def switching_line(r: Results, group: str, unit: str) -> str:
     return "; ".join(bits)
 
 
-def plan_text(r: Results):
-    """The station plan in words: what to build, in order, the dB each adds, and who serves which target when."""
+def plan_text(r: Results, label: str = "Station plan"):
+    """The station plan in words: what to build, in order, the dB each adds, and who serves which target when;
+    ``label`` heads it (a band's own plan in a run of several bands says so)."""
     from rich.text import Text
 
     from snrgain.outputs.messages import PLAN_WORTH, plan_not_best_text
 
     p = r.plan
     out = Text()
-    out.append("Station plan", style="bold")
+    out.append(label, style="bold")
     limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
     if not p.antennas:
         out.append(f"{limit}: no candidate adds {0.1:g} dB or more; keep {r.reference.name}.\n")
@@ -636,11 +639,10 @@ def build_text(r: Results):
     return out
 
 
-def ranking_table(results: Results, *, build: bool = False):
-    """A rich renderable: header lines, one ranking per target, the station plan, and (``build``) the build
-    sheet."""
+def ranking_table(results: Results, *, build: bool = False, plan_label: str = "Station plan", legend: bool = True):
+    """A rich renderable: header lines, one ranking per target, the station plan (headed ``plan_label``), (``build``)
+    the build sheet, and (``legend``) what the columns mean (:func:`columns_legend`)."""
     from rich.console import Group
-    from rich.text import Text
 
     r = results
     parts = [_header(r)]
@@ -648,17 +650,23 @@ def ranking_table(results: Results, *, build: bool = False):
 
     lab = labelled(r)
     parts += [target_table(r, i, lab) for i in range(len(r.targets))]
-    parts.append(plan_text(r))
+    parts.append(plan_text(r, plan_label))
     if build:
         parts.append(build_text(r))
-    parts.append(
-        Text(
-            "RDF on the trade's scale (gain toward the target, weighted over its arrival elevations, over the gain "
-            "averaged over the whole sphere: toward a low target it reads lower than an RDF at 20 deg, the elevation "
-            "of the transmitting vertical's figures and of auto steering); "
-            "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
-            f"hour); '!' marks a receiver-noise-limited antenna; {PREAMP_LEGEND}.",
-            style="dim",
-        )
-    )
+    if legend:
+        parts.append(columns_legend())
     return Group(*parts)
+
+
+def columns_legend():
+    """What the ranking's columns mean, in one dim paragraph (once under a run's rankings, every band's too)."""
+    from rich.text import Text
+
+    return Text(
+        "RDF on the trade's scale (gain toward the target, weighted over its arrival elevations, over the gain "
+        "averaged over the whole sphere: toward a low target it reads lower than an RDF at 20 deg, the elevation "
+        "of the transmitting vertical's figures and of auto steering); "
+        "noise: sky noise delivered to the receiver input; margin: that minus the chain's noise floor (worst "
+        f"hour); '!' marks a receiver-noise-limited antenna; {PREAMP_LEGEND}.",
+        style="dim",
+    )

@@ -14,6 +14,7 @@ from datetime import UTC, datetime
 import numpy as np
 
 from snrgain.outputs import plots
+from snrgain.outputs.messages import notice_text
 from snrgain.outputs.output import PREAMP_LEGEND, ground_text, preamp_cell
 from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import number_text, s_units, signed_text
@@ -255,8 +256,17 @@ def _ranking(r) -> str:
         "Noise: sky noise delivered to the receiver input. Margin: that over the chain's floor at the worst hour; "
         f"'!' marks an antenna limited by receiver noise; {_e(PREAMP_LEGEND)}.</p>"
     )
-    if r.warnings:
-        out.append("<ul>" + "".join(f"<li>{_e(wn)}</li>" for wn in r.warnings) + "</ul>")
+    said, apart = r.notices_apart(r.built_names())
+    unit = r.site.get("length_unit", "m")
+    if said:
+        out.append("<ul>" + "".join(f"<li>{_e(notice_text(n, unit=unit))}</li>" for n in said) + "</ul>")
+    if apart:
+        what = "warning" if len(apart) == 1 else "warnings"
+        out.append(
+            f"<details><summary>{len(apart)} more {what} on candidates the station plan does not build</summary><ul>"
+            + "".join(f"<li>{_e(notice_text(n, unit=unit))}</li>" for n in apart)
+            + "</ul></details>"
+        )
     return "\n".join(out)
 
 
