@@ -14,6 +14,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+import snrgain
+import snrgain.scenario
 from snrgain.antennas.base import from_si, from_spec
 from snrgain.antennas.coupling import monopole_impedance
 from snrgain.physics import scatter
@@ -828,3 +830,66 @@ def test_a_broadside_pairs_lobe_is_the_one_toward_its_bearing(bearing):
     assert np.degrees(main_lobe_rad(az, two, np.radians(170.0))) == pytest.approx(180.0)
     assert np.degrees(main_lobe_rad(az, two, np.radians(10.0))) == pytest.approx(0.0)
     assert np.degrees(main_lobe_rad(az, two * (1 + 0.5 * np.cos(az)), np.radians(180.0))) == pytest.approx(0.0)
+
+
+LINES_FED = """
+[site]
+name = "Larchmere Lane (invented)"
+latitude = 41.18
+longitude = -77.46
+ground = { conductivity = "4 mS/m", permittivity = 13 }
+tx_state = "resonant"
+[band]
+frequency = "3.525 MHz"
+bandwidth = "500 Hz"
+[time]
+months = [1]
+utc_hours = [2]
+[noise.man_made]
+environment = "residential"
+[[target]]
+name = "South America"
+bearing = 149
+elevation = [5, 10]
+[reference]
+name = "TX vertical"
+family = "vertical"
+height = "15 m"
+top_loading = "6 m"
+ground_loss = "8 ohm"
+position = [49.6, 14.4]
+[[candidate]]
+name = "four-square lines"
+family = "phased-verticals"
+positions = [[6, 40], [24, 40], [6, 58], [24, 58]]
+height = "7 m"
+ground_loss = "30 ohm"
+bearing = 135
+feed = "lines"
+"""
+
+
+def test_a_lines_fed_array_feels_the_vertical_as_its_currents_do():
+    # The vertical re-radiates into what the array's elements hear; fed by lines, the elements' currents are the
+    # coupling's transform of the combiner's weights (I = M V), and the re-radiation reaches the array through
+    # those currents.  So a current-forced array given the very currents of the lines-fed one sees the vertical
+    # alike: the same RDF change and front-to-back (it once read the weights as currents: -6.0 dB of RDF and a
+    # front-to-back of 3.5 dB, against -0.4 dB and 24 dB for the same currents forced).
+    sc = snrgain.scenario.load(LINES_FED)
+    lines = next(a for a in sc.candidates if a.name == "four-square lines")
+    i = lines.currents(sc.freq_hz)
+    amps = np.abs(i) / np.abs(i).max()
+    lags = np.mod(-np.degrees(np.angle(i)), 360.0)
+    forced = (
+        '\n[[candidate]]\nname = "four-square forced"\nfamily = "phased-verticals"\n'
+        "positions = [[6, 40], [24, 40], [6, 58], [24, 58]]\n"
+        'height = "7 m"\nground_loss = "30 ohm"\nbearing = 135\nfeed = "current"\nsteering = "given"\n'
+        f'amplitudes = {[float(a) for a in amps]}\nphases = {[float(x) for x in lags]}\nphase_sense = "lag"\n'
+    )
+    r = snrgain.evaluate(LINES_FED + forced)
+    rows = {t["antenna"]: t for t in r.tx_vertical}
+    a, b = rows["four-square lines"], rows["four-square forced"]
+    assert a["alone"]["rdf_db"] == pytest.approx(b["alone"]["rdf_db"], abs=0.01)  # one pattern, alone
+    assert a["resonant"]["rdf_change_db"] == pytest.approx(b["resonant"]["rdf_change_db"], abs=0.02)
+    assert a["resonant"]["front_to_back_db"] == pytest.approx(b["resonant"]["front_to_back_db"], abs=0.2)
+    assert abs(a["resonant"]["rdf_change_db"]) < 1.0  # 0.58 wavelength from a resonant quarter wave

@@ -239,14 +239,15 @@ def _perfect_twin(antenna):
 
 def parts(antenna, freq_hz: float, at_m):
     """(part, plan point, weight) of each radiating part, and the plan point the antenna's phase refers to: an
-    array's elements through its weights (phases referred to the plan's origin), else the antenna at ``at_m``."""
+    array's elements through their amplitudes in its response (``element_amplitudes``: the weights over the
+    combiner's norm, and for elements fed by lines the currents their coupling makes of the weights; phases
+    referred to the plan's origin), else the antenna at ``at_m``."""
     elements = getattr(antenna, "elements", None)
     positions = getattr(antenna, "positions", None)
     if elements and positions is not None and len(positions) == len(elements) and not antenna.composite:
-        w = antenna.weights_at(freq_hz)
-        norm = float(np.real(w.conj() @ antenna.norm_matrix(freq_hz) @ w))
+        amps = antenna.element_amplitudes(freq_hz)
         pos = np.asarray(positions, dtype=float)
-        return [(e, pos[i], complex(w[i]) / np.sqrt(norm)) for i, e in enumerate(elements)], np.zeros(2)
+        return [(e, pos[i], complex(amps[i])) for i, e in enumerate(elements)], np.zeros(2)
     at = np.asarray(at_m, dtype=float)
     return [(antenna, at, 1.0)], at
 
