@@ -77,8 +77,12 @@ def test_beverage_next_to_a_medium_wave_station_is_warned_with_level_and_filter(
     warned = [n for n in r.notices if n.code == "strong-signal-overload" and n.antenna == "Beverage north-east"]
     assert len(warned) == 1
     v = warned[0].values
-    # +5 dBm compression point less 10 dB: the filter is what brings the level to 5 - 10 = -5 dBm
-    assert v["filter_db"] == pytest.approx(bev["stage_input_dbm"] - (5.0 - 10.0), abs=0.01)
+    # The 15 dB preamplifier (its +5 dBm compression point given) hands the receiver (+5 dBm assumed) the station
+    # 15 dB louder: the receiver is worst off, and the filter is what brings its level to 5 - 10 = -5 dBm
+    at_receiver = next(x["input_dbm"] for x in bev["stages"] if x["stage"] == "receiver")
+    assert at_receiver == pytest.approx(bev["stage_input_dbm"] + 15.0, abs=1e-9)
+    assert v["stage"] == "receiver" and v["assumed"] == ["p1db"]
+    assert v["filter_db"] == pytest.approx(at_receiver - (5.0 - 10.0), abs=0.01)
     text = next(w for w in r.warnings if w.startswith("Beverage north-east: nearby transmitters"))
     assert "Kestrel medium-wave relay" in text and f"{v['filter_db']:.0f} dB" in text
     # the Beverage's level is delivered through its modelled transformer; a vertical's is the power available to a
@@ -220,3 +224,24 @@ def test_a_station_well_under_the_limit_beside_the_loud_one_gets_no_filter_of_it
     (f,) = st.overload_filters(levels, 1.83e6, -5.0, bandwidth_hz=500.0)
     assert f.stations == ("neighbour",) and f.kind == "none"
     assert f.rejection_db == pytest.approx(10 * np.log10(10**0.13 / (10**-0.5 - 10**-1.5)), abs=0.01)
+
+
+def test_levels_overload_and_products_along_a_cascade_by_hand():
+    # transformer 1 dB, preamplifier 20 dB, feed line 3 dB, receiver: the level at a stage's input is the
+    # terminals' plus the gains before it (cascaded matched stages, Pozar, "Microwave Engineering", ch. 10)
+    pre, rx = st.stage_inputs_dbm(-20.0, [-1.0, 20.0, -3.0, 0.0], [1, 3])
+    assert (pre, rx) == (pytest.approx(-21.0), pytest.approx(-4.0))
+    amp = st.StageLimits("preamplifier", p1db_dbm=5.0, iip3_dbm=20.0, iip2_dbm=60.0)
+    receiver = st.StageLimits("receiver", p1db_dbm=0.0, iip3_dbm=10.0, iip2_dbm=50.0)
+    loads = [
+        st.stage_load(limits, {"a": (1.0e6, level), "b": (1.41e6, level)})
+        for limits, level in ((amp, pre), (receiver, rx))
+    ]
+    # two stations alike: their total 10 log10(2) above each; over the safe level, p1db less 10 dB
+    assert loads[0].total_dbm == pytest.approx(-21.0 + 10 * np.log10(2))
+    assert loads[0].over_db == pytest.approx(-21.0 + 10 * np.log10(2) + 5.0)  # under: -13 dB
+    assert loads[1].over_db == pytest.approx(-4.0 + 10 * np.log10(2) + 10.0)  # over: +9 dB
+    assert st.worst_stage(loads) is loads[1] and st.worst_stage(loads[:1]) is None
+    # 2 x 1.41 - 1.0 = 1.82 MHz lands by 1.83 MHz: P_IM3 = 2 P2 + P1 - 2 IIP3 at the stage's input (Hayward et al.)
+    (p,) = [x for x in st.products_in_band(loads[1].levels_dbm, receiver, 1.83e6) if x.order == 3]
+    assert p.freq_hz == pytest.approx(1.82e6) and p.level_dbm == pytest.approx(3 * -4.0 - 2 * 10.0)

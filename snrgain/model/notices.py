@@ -55,7 +55,10 @@ class Notice:
     noise moves that much; snrgain.decide.source_place).
 
     ``strong-signal-overload`` also holds listen_hz and filters (kind, stations, frequencies_hz, rejection_db, why:
-    snrgain.physics.strong.overload_filters); its filter_db is their rejection.
+    snrgain.physics.strong.overload_filters); its filter_db is their rejection.  Both strong-signal codes are said of
+    the active stage worst off (``stage``: "preamplifier" or "receiver"; the most dB over) and hold ``stages``, each
+    active stage of the chain in its order: the overload's stage, input_dbm, p1db_dbm, over_db, assumed; the
+    product's stage, level_dbm, noise_dbm, over_db, assumed (over_db negative where that stage is within its limit).
     """
 
     code: str

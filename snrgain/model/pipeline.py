@@ -20,8 +20,8 @@ go through these functions:
    antenna's chain (:func:`snrgain.physics.chain.noise_budget`) and the build sheet;
 8. :func:`decide`: per target the candidates ranked by median SNR gain toward it, the station plan on the same
    statistic (:func:`snrgain.decide.plan.station_plan`) and :func:`notices`;
-9. :func:`snrgain.model.strong.with_strong_signals`: nearby transmitters' levels at each antenna's first active
-   stage, and the antennas they would overload.
+9. :func:`snrgain.model.strong.with_strong_signals`: nearby transmitters' levels at each active stage of each
+   antenna's chain (its preamplifier, its receiver), and the antennas they would overload.
 
 Nothing is summed or averaged in dB over targets.
 """

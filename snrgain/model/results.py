@@ -209,8 +209,9 @@ class Results:
     change, front-to-back and forward-gain change (snrgain.model.scatter.tx_effects); its ranked figures already
     hold the state run."""
     strong_signals: list[dict[str, Any]] = field(default_factory=list)
-    """Per antenna and nearby transmitter ([[strong_signal]]): its field, the level at the antenna's terminals and
-    at the first active stage (snrgain.model.strong)."""
+    """Per antenna and nearby transmitter ([[strong_signal]]): its field, the level at the antenna's terminals, at
+    the first active stage (``stage``, ``stage_input_dbm``) and at each active stage (``stages``: stage, input_dbm;
+    the preamplifier where there is one, then the receiver) (snrgain.model.strong)."""
 
     @property
     def antennas(self) -> list[AntennaResult]:

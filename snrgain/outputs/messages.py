@@ -30,6 +30,27 @@ def _assumed(keys) -> str:
     return f" (its {', '.join(keys)} assumed: give them in [chain.preamp] or [receiver] from the datasheet)"
 
 
+def _other_stages_text(v: dict, level_key: str, verb: str, against: str) -> str:
+    """The chain's other active stages of a strong-signal notice (its ``stages``, in the chain's order), each with
+    its level and where it stands against ``against``: "; the preamplifier ahead of it takes -14 dBm, 9 dB under
+    its safe level"."""
+    stages = v.get("stages") or []
+    names = [x["stage"] for x in stages]
+    if v["stage"] not in names:
+        return ""
+    at = names.index(v["stage"])
+    said = []
+    for i, x in enumerate(stages):
+        if i == at:
+            continue
+        where = "ahead of it" if i < at else "after it"
+        over = x["over_db"]
+        stand = f"{over:.0f} dB above {against} as well" if over > 0 else f"{-over:.0f} dB below {against}"
+        assumed = f" (its {', '.join(x['assumed'])} assumed)" if x["assumed"] else ""
+        said.append(f"the {x['stage']} {where} {verb} {x[level_key]:+.0f} dBm, {stand}{assumed}")
+    return "".join(f"; {s}" for s in said)
+
+
 _TRAP_WHY = {
     "broadcast band": "it shares the medium-wave broadcast band with the frequency listened to, where a high- or "
     "low-pass would cut off that band as well",
@@ -427,6 +448,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"safely (its 1 dB compression point {v['p1db_dbm']:+g} dBm less {v['margin_db']:g} dB)"
             + _assumed(v["assumed"])
             + _upper_bound(v)
+            + _other_stages_text(v, "input_dbm", "takes", "its safe level")
             + _overload_filters_text(v)
         )
     if n.code == "strong-signal-product":
@@ -437,6 +459,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             f"quietest hour's noise there"
             + _assumed(v["assumed"])
             + _upper_bound(v)
+            + _other_stages_text(v, "level_dbm", "makes it at", "the noise at its input")
             + f"; {v['filter_db']:.0f} dB of filtering at "
             "both stations' frequencies before the first amplifier brings it down to the noise"
         )

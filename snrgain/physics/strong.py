@@ -1,5 +1,5 @@
-"""Strong signals next door: the level a nearby transmitter puts at an antenna's terminals and at the first
-active stage of its chain, against that stage's limits.
+"""Strong signals next door: the level a nearby transmitter puts at an antenna's terminals and at each active
+stage of its chain, against that stage's limits.
 
 **The field.**  A medium-wave (or other) station radiating ``P`` from a short vertical monopole over a perfect
 ground makes 300 sqrt(P / 1 kW) mV/m at 1 km (the cymomotive force of 300 V of ITU-R P.368's curves; it follows
@@ -33,18 +33,27 @@ Checked against NEC-2 (tests/nec/offband.json, tests/test_strong_offband.py): a 
 and a 6 m vertical over moist loam at 0.55-1.7 MHz under a plane wave at 0.5 and 2 deg, the power into the load
 over the surface field's |E|^2 / (2 eta0) (the vertical through its open-circuit voltage).
 
-**The first active stage.**  Between the terminals and the first amplifier: the transformer's loss, and the feed
-line's matched loss at the station's frequency (a cable given by type and length; a total loss as given) when the
-amplifier sits at the receiver end (or there is none
-and the receiver is the first stage).  Against that stage's limits (input-referred): the 1 dB compression point
-(the total power of all strong signals; a warning when it comes within :data:`COMPRESSION_MARGIN_DB`), and the
-second- and third-order intercepts for products of two stations that land within
-:data:`IN_BAND_SPAN_HZ` of the listening frequency: P_IM2 = P1 + P2 - IIP2, P_IM3 = 2 P1 + P2 - 2 IIP3 (dBm, the
-intercept definitions; e.g. W. Hayward, R. Campbell and B. Larkin, "Experimental Methods in RF Design", ARRL
-(2003), ch. 2, from memory), warned when the product rises above the external noise at that stage's input in the
-listening bandwidth.  The filter attenuation that cures it is the excess over the limit for compression, half of
-it for a second-order product and a third for a third-order one (each dB at both stations' frequencies lowers them
-by 2 or 3 dB).
+**Every active stage.**  The level at the input of each active stage of the chain (the preamplifier, where there is
+one, and the receiver) is the level at the terminals plus the gains in dB of the stages before it, a loss counting
+negative (:func:`stage_inputs_dbm`): the transformer's loss, the feed line's matched loss at the station's frequency
+(a cable given by type and length; a total loss as given) where it lies ahead, and the preamplifier's gain ahead of
+the receiver (taken as at the frequency listened to: a broadband preamplifier's; one with its own band filter gains
+less off band, so there the receiver's level is an upper bound).  This is the cascade of matched two-port stages
+(D. M. Pozar, "Microwave Engineering", 4th ed., Wiley (2012), ch. 10 on noise and nonlinear distortion in cascaded
+systems, from memory).  So a 20 dB preamplifier at the antenna hands the receiver its broadcaster 20 dB louder.
+Each stage is held against its own limits (input-referred; a receiver's or preamplifier's defaults where none are
+given): the 1 dB compression point (the total power of all strong signals; a warning when it comes within
+:data:`COMPRESSION_MARGIN_DB`; :func:`stage_load`), and the second- and third-order intercepts for products of two
+stations that land within :data:`IN_BAND_SPAN_HZ` of the listening frequency: P_IM2 = P1 + P2 - IIP2,
+P_IM3 = 2 P1 + P2 - 2 IIP3 (dBm at that stage's input, the intercept definitions; with P1 = P2 = P the familiar
+3 P - 2 IIP3; e.g. W. Hayward, R. Campbell and B. Larkin, "Experimental Methods in RF Design", ARRL (2003), ch. 2,
+from memory), warned when the product rises above the external noise at that stage's input in the listening
+bandwidth (the product made in the receiver from the preamplified stations, against the noise the preamplifier
+hands it).  The warning names the stage that is worst off (the most dB over); the products of two stages can add,
+up to 6 dB where they are equal and in phase (the cascaded intercept's worst case, Pozar ibid.), which snrgain does
+not add.  The filter attenuation that cures it, ahead of the first amplifier (so at every stage alike), is the
+excess over the limit for compression, half of it for a second-order product and a third for a third-order one
+(each dB at both stations' frequencies lowers them by 2 or 3 dB).
 
 **The filter against compression** (:func:`overload_filters`).  Its kind follows where each offending station lies
 against the frequency listened to: below it a high-pass, above it a low-pass, each turning over between the
@@ -91,8 +100,8 @@ UNFILTERED_SHARE = 0.25
 
 @record
 class StageLimits:
-    """The first active stage's large-signal limits, input-referred [dBm]; ``assumed`` names the values that are
-    snrgain's defaults, not the user's."""
+    """An active stage's large-signal limits, input-referred [dBm]; ``name`` is the stage's ("preamplifier",
+    "receiver"), ``assumed`` names the values that are snrgain's defaults, not the user's."""
 
     name: str
     p1db_dbm: float
@@ -147,6 +156,46 @@ def ground_wave_aperture_m2(antenna, freq_hz: float, bearing_rad: float, ground:
 
 def dbm(watts: float) -> float:
     return float(10.0 * np.log10(max(watts, 1e-30) / 1e-3))
+
+
+def stage_inputs_dbm(terminal_dbm: float, gains_db, active) -> tuple[float, ...]:
+    """The level at the input of each active stage [dBm]: the terminals' level plus the gains [dB] of every stage
+    before it, a loss counting negative, P_k = P_0 + G_0 + ... + G_(k-1) (the cascade of matched stages: module
+    docstring).  ``gains_db``: every stage's gain at the station's frequency in the chain's order; ``active``: the
+    indexes of the stages asked for.
+
+    >>> levels = stage_inputs_dbm(-13.6, [0.0, 20.0, -1.5, 0.0], [1, 3])  # transformer, preamp, line, receiver
+    >>> [round(x, 6) for x in levels]
+    [-13.6, 4.9]
+    """
+    before = np.concatenate(([0.0], np.cumsum(np.asarray(gains_db, dtype=float))))
+    return tuple(float(terminal_dbm + before[k]) for k in active)
+
+
+@record
+class StageLoad:
+    """The strong signals at one active stage's input: its ``limits``, each station's level there (``levels_dbm``:
+    name -> (freq [Hz], level [dBm])), their total power [dBm], and how far that total stands above the stage's
+    safe level, its 1 dB compression point less COMPRESSION_MARGIN_DB (``over_db``; negative: under it) [dB]."""
+
+    limits: StageLimits
+    levels_dbm: dict
+    total_dbm: float
+    over_db: float
+
+
+def stage_load(limits: StageLimits, levels_dbm: dict[str, tuple[float, float]]) -> StageLoad:
+    """The stations' total power at a stage's input (name -> (freq [Hz], level [dBm])) against its compression
+    point (module docstring): overloaded where ``over_db`` > 0."""
+    total = dbm(sum(10.0 ** (p / 10.0) * 1e-3 for _, p in levels_dbm.values()))
+    return StageLoad(limits, dict(levels_dbm), total, total - (limits.p1db_dbm - COMPRESSION_MARGIN_DB))
+
+
+def worst_stage(loads):
+    """The stage the strong signals overload most (largest ``over_db``; the earlier of a tie), or None where none
+    is overloaded."""
+    over = [x for x in loads if x.over_db > 0.0]
+    return max(over, key=lambda x: x.over_db) if over else None
 
 
 @record
@@ -254,6 +303,7 @@ __all__ = [
     "Product",
     "RECEIVER_DEFAULTS",
     "StageLimits",
+    "StageLoad",
     "Station",
     "UNFILTERED_SHARE",
     "dbm",
@@ -262,4 +312,7 @@ __all__ = [
     "ground_wave_field_v_per_m",
     "overload_filters",
     "products_in_band",
+    "stage_inputs_dbm",
+    "stage_load",
+    "worst_stage",
 ]

@@ -135,8 +135,9 @@ class Scenario:
     """Candidates that ``snrgain layout`` may move: name -> PlaceSection (the ranges it may search)."""
     strong_signals: tuple[strongmod.Station, ...] = ()
     """Nearby transmitters ([[strong_signal]]), as distance and bearing from the site."""
-    stage_limits: tuple[strongmod.StageLimits, ...] = ()
-    """``stage_limits[i]``: the large-signal limits of the first active stage of ``chains[i]``."""
+    stage_limits: tuple[tuple[strongmod.StageLimits, ...], ...] = ()
+    """``stage_limits[i]``: the large-signal limits of each active stage of ``chains[i]`` in its order (the
+    preamplifier where there is one, then the receiver)."""
     transmitting: str | None = None
     """The name of the site's transmitting vertical: ``[site] transmitting``, else the file's reference when it is a
     vertical.  It stays the vertical next door (snrgain.model.scatter) when another antenna is made the reference

@@ -1,5 +1,5 @@
 """[[strong_signal]]: nearby transmitters whose signals may overload the receiving chain, and the large-signal
-limits of the first active stage ([chain.preamp] and [receiver] ``p1db``, ``iip3``, ``iip2``)."""
+limits of each active stage ([chain.preamp] and [receiver] ``p1db``, ``iip3``, ``iip2``)."""
 
 from __future__ import annotations
 
@@ -79,19 +79,19 @@ def resolve_stations(sections, site_lat_deg: float, site_lon_deg: float) -> tupl
     return tuple(out)
 
 
-def stage_limits(chain_section, receiver_section) -> strongmod.StageLimits:
-    """The first active stage's limits: the preamplifier's if the chain has one, else the receiver's; the values
-    not given are snrgain's assumptions (named in ``assumed``)."""
+def stage_limits(chain_section, receiver_section) -> tuple[strongmod.StageLimits, ...]:
+    """The limits of each active stage of the chain in its order: the preamplifier's if the chain has one, then the
+    receiver's; the values not given are snrgain's assumptions (named in ``assumed``)."""
     amp = chain_section.preamp if chain_section is not None else None
-    src, defaults, name = (
-        (amp, strongmod.PREAMP_DEFAULTS, "preamplifier")
-        if amp is not None
-        else (receiver_section, strongmod.RECEIVER_DEFAULTS, "receiver")
-    )
-    values, assumed = {}, []
-    for key, field_name in (("p1db_dbm", "p1db"), ("iip3_dbm", "iip3"), ("iip2_dbm", "iip2")):
-        given = getattr(src, field_name, None)
-        if given is None:
-            assumed.append(field_name)
-        values[key] = float(defaults[key] if given is None else given)
-    return strongmod.StageLimits(name, assumed=tuple(assumed), **values)
+    stages = [] if amp is None else [(amp, strongmod.PREAMP_DEFAULTS, "preamplifier")]
+    stages.append((receiver_section, strongmod.RECEIVER_DEFAULTS, "receiver"))
+    out = []
+    for src, defaults, name in stages:
+        values, assumed = {}, []
+        for key, field_name in (("p1db_dbm", "p1db"), ("iip3_dbm", "iip3"), ("iip2_dbm", "iip2")):
+            given = getattr(src, field_name, None)
+            if given is None:
+                assumed.append(field_name)
+            values[key] = float(defaults[key] if given is None else given)
+        out.append(strongmod.StageLimits(name, assumed=tuple(assumed), **values))
+    return tuple(out)
