@@ -53,6 +53,10 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
     max_antennas = bands[0][1].plan.max_antennas if bands[0][1].plan is not None else None
     index = {n: k for k, n in enumerate(names)}
     pairs = [pair for _, r in bands if r.plan is not None for pair in getattr(r.plan, "alternatives", ())]
+    unfit = {  # where a band's plan finds an antenna cannot be built where it stands (the same place on every band)
+        index[n]: why for _, r in bands if r.plan is not None for n, why in r.plan.unfit.items() if n in index
+    }
+    parts_of = {a.name: a.parts for _, r in bands for a in r.candidates}  # a phasing unit's own antennas
     plan = station_plan(
         names,
         np.array(gains).T,
@@ -64,6 +68,8 @@ def plan_across_bands(bands) -> tuple[Plan, tuple[tuple[str, str], ...]]:
         alternatives=sorted(
             {(index[a], index[b]) for a, b in pairs if a in index and b in index}  # of one band or another
         ),
+        parts=[()] + [tuple(index[p] for p in parts_of.get(n, ()) if index.get(p, 0) > 0) for n in names[1:]],
+        unfit=unfit,
     )
     return plan, tuple(columns)
 

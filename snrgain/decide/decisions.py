@@ -199,6 +199,15 @@ def _part_indices(sc: Scenario, ant) -> tuple[int, ...]:
     return tuple(k for k, a in enumerate(sc.antennas) if any(a is e for e in ant.elements) and k > 0)
 
 
+def _unfit_indices(sc: Scenario) -> dict[int, dict]:
+    """The candidates that cannot be built where the file places them (snrgain.decide.lot.unfit), by their index
+    among the scenario's antennas."""
+    from snrgain.decide.lot import unfit
+
+    found = unfit(sc)
+    return {k: found[a.name] for k, a in enumerate(sc.antennas) if k > 0 and a.name in found}
+
+
 def _alternative_indices(sc: Scenario) -> list[tuple[int, int]]:
     """The pairs of candidates (indices among the scenario's antennas) that stand in one place, of which the station
     plan builds one at most (snrgain.decide.lot.alternatives)."""
@@ -494,6 +503,7 @@ def decide(sc: Scenario, skies: noisemod.SkySeries, antennas: list[AntennaResult
         groups=[a.group for a in antennas],
         parts=[_part_indices(sc, ant) for ant in sc.antennas],
         alternatives=_alternative_indices(sc),
+        unfit=_unfit_indices(sc),
     )
     return Results(
         source=sc.source,

@@ -347,6 +347,35 @@ def alternatives(sc) -> list[tuple[str, str]]:
     return [(n.antenna, n.values["other"]) for n in of_every_state(found, stands, {})]
 
 
+UNFIT_CODES = ("off-lot", "in-keep-out", "near-tx-vertical")
+"""The place notices of an antenna that cannot be built where the file places it (a clearance from the transmitting
+vertical only where the user gives one: a hard rule)."""
+
+
+def unfit(sc) -> dict[str, dict]:
+    """The candidates (by name; each state of a switched antenna by its own) that cannot be built where the file
+    places them -> {code, values} of the first such notice: off the lot (beyond OFF_LOT_TOLERANCE_M), in a keep-out
+    area, or within a ``tx_clearance`` the user gives of the transmitting vertical.  The station plan leaves them out
+    (snrgain.decide.plan.station_plan's ``unfit``); ``snrgain layout`` looks for a place that fits."""
+    site = sc.site
+    if site.lot_m is None and not getattr(site, "keep_out", ()) and getattr(site, "tx_clearance_m", None) is None:
+        return {}
+    lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
+    keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
+    shapes, stands = places(sc)
+    found = [
+        n
+        for n in _place_notices(sc, shapes, None, lot, keep)
+        if n.code in UNFIT_CODES and (n.code != "near-tx-vertical" or n.values.get("given"))
+    ]
+    candidates = {a.name for a in sc.candidates}
+    out: dict[str, dict] = {}
+    for n in of_every_state(found, stands, {}):
+        if n.antenna in candidates:
+            out.setdefault(n.antenna, {"code": n.code, "values": dict(n.values)})
+    return out
+
+
 def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
     """Off the lot, in a keep-out, wires crossing or laid alike, antennas on one spot, near the TX vertical: of each
     place once (``shapes``: :func:`places`; ``only``: the places of a sweep's design, or None)."""

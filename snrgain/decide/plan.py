@@ -88,13 +88,18 @@ class Plan:
     less than MIN_ADDED_DB to the plan's worth); adds_db what building it too would add to the plan's worth, weight
     the target's share of it; or reason "alternative" (it stands where ``instead``, members of the plan, stand, so it
     cannot be built too), with swap_db, what building it in their place would change the plan's worth by, in place
-    of adds_db."""
+    of adds_db; or reason "unfit" (it cannot be built where the file places it: ``where``, the place's problem as
+    ``unfit`` holds it)."""
     states: dict[str, list[str]] = field(default_factory=dict)
     """A switched antenna of the plan (by its group name, as in ``antennas``) -> its states that serve a target, in
     the order written; the antenna is built once and switched between them."""
     alternatives: list[tuple[str, str]] = field(default_factory=list)
     """Pairs of antennas (by name; a switched antenna's states each by its own, a phasing unit by its name where one
     of its parts stands in the other's place) of which the plan builds one at most: they stand in one place."""
+    unfit: dict[str, dict] = field(default_factory=dict)
+    """Antennas (by name; a switched antenna's states each by its own) the plan leaves out because they cannot be
+    built where the file places them -> {code, values} of the first such problem (snrgain.decide.lot.unfit: off the
+    lot, in a keep-out area, within a tx_clearance the user gives); a phasing unit over such a part is left out too."""
 
 
 def worth(gains: np.ndarray, weights: np.ndarray, members) -> float:
@@ -120,6 +125,7 @@ def station_plan(
     groups=None,
     parts=None,
     alternatives=None,
+    unfit=None,
 ) -> Plan:
     """The station plan (module docstring); ``names[0]`` is the reference.
 
@@ -130,7 +136,9 @@ def station_plan(
     (indices) a phasing unit i is built over, which come with it (each may serve a target alone: the unit passes it
     alone); ``alternatives``: pairs (or larger groups) of antennas (indices) of which one at most can be built (they
     stand in one place): no set holding two of them is tried, and a target whose best is left out for the other gets
-    the reason "alternative" (``instead``: the members built in its place).
+    the reason "alternative" (``instead``: the members built in its place); ``unfit``: antenna index -> {code,
+    values}, the antennas that cannot be built where they are placed (snrgain.decide.lot.unfit), left out of the
+    plan, a phasing unit over one of them too; a target whose best is one of them gets the reason "unfit".
 
     >>> g = np.array([[0.0, 0.0], [6.0, 0.0], [0.0, 4.0]])
     >>> p = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]))
@@ -149,14 +157,25 @@ def station_plan(
     >>> alt = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]), alternatives=[(1, 2)])  # 'a' stands on 'b'
     >>> alt.antennas, alt.alternatives, alt.not_best[1]["reason"], alt.not_best[1]["instead"]
     (['a'], [('a', 'b')], 'alternative', ['a'])
+    >>> off = station_plan(["ref", "a", "b"], g, np.array([0.5, 0.5]), unfit={1: {"code": "off-lot", "values": {}}})
+    >>> off.antennas, off.not_best[0]["reason"], list(off.unfit)
+    (['b'], 'unfit', ['a'])
     """
     gains = np.nan_to_num(np.asarray(gains, dtype=float), nan=0.0)
     gains[0] = 0.0
     groups = [None] * len(names) if groups is None else list(groups)
     candidates = [i for i in range(1, len(names)) if buildable is None or buildable[i]]
+    parts = [()] * len(names) if parts is None else [tuple(p or ()) for p in parts]
+    unfit = dict(unfit or {})
+    for i in candidates:  # a phasing unit over a part that cannot be built where it stands cannot be either
+        bad = next((j for j in parts[i] if j in unfit), None)
+        if bad is not None and i not in unfit:
+            unfit[i] = {"code": "part-unfit", "values": {"part": names[bad], **unfit[bad]}}
     units: list[tuple[int, ...]] = []  # one member each: an antenna, or every state of a switched antenna
     unit_names: list[str] = []
     for i in candidates:
+        if i in unfit:
+            continue
         if groups[i] is not None and groups[i] in unit_names:
             k = unit_names.index(groups[i])
             units[k] = (*units[k], i)
@@ -164,7 +183,6 @@ def station_plan(
             units.append((i,))
             unit_names.append(names[i] if groups[i] is None else groups[i])
 
-    parts = [()] * len(names) if parts is None else [tuple(p or ()) for p in parts]
 
     def built(u) -> tuple[int, ...]:  # a member's antennas and what comes with them (a unit's own antennas)
         return (*units[u], *(j for i in units[u] for j in parts[i]))
@@ -224,7 +242,16 @@ def station_plan(
             Service(names[served], list(months), [float(h) for h in hours], float(gains[served, t]), groups[served])
         ]
         top = max(candidates, key=lambda a: gains[a, t], default=None)
-        if top is not None and gains[top, t] > gains[served, t] + TIE_DB:
+        if top is not None and top in unfit and gains[top, t] > gains[served, t] + TIE_DB:
+            not_best[t] = {
+                "best": names[top],
+                "best_db": float(gains[top, t]),
+                "served_by": names[served],
+                "served_db": float(gains[served, t]),
+                "reason": "unfit",
+                "where": unfit[top],
+            }
+        elif top is not None and gains[top, t] > gains[served, t] + TIE_DB:
             u = unit_of[top]
             why = {
                 "best": names[top],
@@ -255,6 +282,7 @@ def station_plan(
         not_best,
         states,
         [(names[i], names[j]) for u, v in sorted(tuple(sorted(c)) for c in clash) for i in units[u] for j in units[v]],
+        {names[i]: unfit[i] for i in sorted(unfit)},
     )
 
 

@@ -458,6 +458,7 @@ def plan_to_dict(p, rows_key: str, where) -> dict[str, Any]:
         "not_best": [{**where(c), **why} for c, why in sorted(p.not_best.items())],
         "states": getattr(p, "states", {}),
         "alternatives": [list(pair) for pair in getattr(p, "alternatives", ())],
+        "unfit": [{"antenna": name, **why} for name, why in getattr(p, "unfit", {}).items()],
     }
 
 

@@ -575,8 +575,8 @@ PLAN_WORTH = (
 """What the station plan's worth is, in words (snrgain.decide.plan)."""
 
 
-def plan_not_best_text(target: str, why: dict) -> str:
-    """Why the plan serves a target with another antenna than the target's best, in words."""
+def plan_not_best_text(target: str, why: dict, unit: str = "m") -> str:
+    """Why the plan serves a target with another antenna than the target's best, in words (lengths in ``unit``)."""
     from snrgain.decide.plan import MIN_ADDED_DB
 
     if why["best_db"] - why["served_db"] < 0.05:  # the same gain as printed: no antenna to add for it
@@ -586,6 +586,13 @@ def plan_not_best_text(target: str, why: dict) -> str:
         )
     if why["reason"] == "alternative":
         return _alternative_text(target, why)
+    if why["reason"] == "unfit":
+        return (
+            f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because it "
+            f"cannot be built where the file places it ({unfit_text(why['where'], unit)}); {why['served_by']} "
+            f"serves it ({signed_text(why['served_db'])} dB). Move it (snrgain layout looks for a place that fits) and rank "
+            "again."
+        )
     if why["reason"] == "max_antennas":
         reason, then = "the plan holds no more antennas ([plan] max_antennas)", ""
     else:
@@ -601,6 +608,26 @@ def plan_not_best_text(target: str, why: dict) -> str:
     return (
         f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because {reason}; "
         f"{why['served_by']} serves it ({signed_text(why['served_db'])} dB).{then}"
+    )
+
+
+def unfit_text(where: dict, unit: str = "m") -> str:
+    """Why an antenna cannot be built where it is placed (snrgain.decide.lot.unfit: {code, values}), in words;
+    lengths in ``unit``."""
+    v = where["values"]
+    if where["code"] == "part-unfit":
+        return f"its part {v['part']} {_unfit_phrase(v['code'], v['values'], unit)}"
+    return f"it {_unfit_phrase(where['code'], v, unit)}"
+
+
+def _unfit_phrase(code: str, v: dict, unit: str) -> str:
+    if code == "off-lot":
+        return f"runs off the lot, up to {length_text(v['outside_m'], unit, 0)} beyond its edge"
+    if code == "in-keep-out":
+        return f"enters the keep-out area {v['area']!r}"
+    return (
+        f"comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
+        f"{length_text(v['clearance_m'], unit, 0)}, your tx_clearance)"
     )
 
 

@@ -79,7 +79,8 @@ def band_plan_text(br):
         out.append(f"  {band}, {target}: {served}\n")
     for c, why in sorted(p.not_best.items()):
         band, target = br.columns[c]
-        out.append(f"  Note: {band}: {plan_not_best_text(target, why)}\n")
+        unit = br.bands[0][1].site.get("length_unit", "m")
+        out.append(f"  Note: {band}: {plan_not_best_text(target, why, unit)}\n")
     return out
 
 
@@ -406,7 +407,7 @@ def plan_text(r: Results, label: str = "Station plan"):
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({signed_text(s.snr_gain_db)} dB)" for s in rows)
         out.append(f"  {r.targets[t]['name']}: {served}\n")
     for t, why in sorted(p.not_best.items()):
-        out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why)}\n")
+        out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why, r.site.get('length_unit', 'm'))}\n")
     return out
 
 

@@ -315,7 +315,10 @@ def _plan(r) -> str:
                 f"<td>{_f(s.snr_gain_db)}</td></tr>"
             )
     out.append("</table>")
-    out += [f"<p>{_e(plan_not_best_text(r.targets[t]['name'], why))}</p>" for t, why in sorted(p.not_best.items())]
+    unit = r.site.get("length_unit", "m")
+    out += [
+        f"<p>{_e(plan_not_best_text(r.targets[t]['name'], why, unit))}</p>" for t, why in sorted(p.not_best.items())
+    ]
     return "\n".join(out)
 
 
