@@ -92,7 +92,8 @@ def test_the_table_and_the_json_say_why(tmp_path):
     assert (
         "Note: Europe: the best, Beverage east" in flat
         and "is not in the plan because it cannot be built where the file places it (it runs off the lot, up to "
-        "130 m beyond its edge); flag east serves it" in flat
+        "130 m beyond its edge); flag east serves it"
+        in flat
         and "snrgain layout looks for a place that fits" in flat
     )
     out = tmp_path / "r.json"

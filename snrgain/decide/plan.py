@@ -183,7 +183,6 @@ def station_plan(
             units.append((i,))
             unit_names.append(names[i] if groups[i] is None else groups[i])
 
-
     def built(u) -> tuple[int, ...]:  # a member's antennas and what comes with them (a unit's own antennas)
         return (*units[u], *(j for i in units[u] for j in parts[i]))
 

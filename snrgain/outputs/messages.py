@@ -590,8 +590,8 @@ def plan_not_best_text(target: str, why: dict, unit: str = "m") -> str:
         return (
             f"{target}: the best, {why['best']} ({signed_text(why['best_db'])} dB), is not in the plan because it "
             f"cannot be built where the file places it ({unfit_text(why['where'], unit)}); {why['served_by']} "
-            f"serves it ({signed_text(why['served_db'])} dB). Move it (snrgain layout looks for a place that fits) and rank "
-            "again."
+            f"serves it ({signed_text(why['served_db'])} dB). Move it (snrgain layout looks for a place that fits) "
+            "and rank again."
         )
     if why["reason"] == "max_antennas":
         reason, then = "the plan holds no more antennas ([plan] max_antennas)", ""
