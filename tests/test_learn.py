@@ -77,8 +77,8 @@ def test_a_shortfall_toward_one_target_is_not_fitted_as_the_sites_level(tmp_path
     assert f.rms_after_db > 1.5
     dest = tmp_path / "w.toml"
     args = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(pa), "--log-b", str(pb), "--write", str(dest)]
-    out = CliRunner().invoke(cli, args)
-    assert out.exit_code != 0 and "does not explain the pairs" in out.output and not dest.exists()
+    out = CliRunner().invoke(cli, args)  # no input error: the fit cannot say a level (1, not 2)
+    assert out.exit_code == 1 and "does not explain the pairs" in out.output and not dest.exists()
     fine_a, fine_b = _logs(tmp_path, 0.0, seed=11, stations=3)
     r = vf.verify(WREN, a_name=A, b_name=B, log_a=fine_a, log_b=fine_b, n_boot=500, seed=1, predict_too=False)
     assert learn.fit_offset(r, WREN).identifiable
@@ -107,7 +107,10 @@ def test_pairs_that_cannot_tell_the_level_say_so(tmp_path):
         ["verify", str(sc), "--a", A, "--b", B, "--log-a", str(tmp_path / "a.txt"), "--log-b"]
         + [str(tmp_path / "b.txt"), "--write", str(tmp_path / "w.toml")],
     )
-    assert out.exit_code != 0 and "no copy written" in out.output and not (tmp_path / "w.toml").exists()
+    assert out.exit_code == 1 and "no copy written" in out.stderr and not (tmp_path / "w.toml").exists()
+    # the hours show the prediction the kept level gives, not one moved by the level the fit did not take
+    hours = [ln for ln in out.stdout.splitlines() if " UTC  measured" in ln]
+    assert hours and not any("->" in ln for ln in hours)
 
 
 def _warnings_beside_local(output: str) -> list[str]:
@@ -295,8 +298,9 @@ def test_too_few_pairs_an_hour_keeps_the_comparison_and_says_why_nothing_was_fit
     assert "the site learns: not fitted: no target and hour has 500 pairs or more (the most: " in out.output
     assert "Europe" in out.output  # the comparison stands
     dest = tmp_path / "w.toml"
-    out = CliRunner().invoke(cli, [*base, "--write", str(dest)])
-    assert out.exit_code != 0 and "no copy written" in out.output and not dest.exists()
+    out = CliRunner().invoke(cli, [*base, "--write", str(dest)])  # too few pairs is no input error: 1, not 2
+    assert out.exit_code == 1 and "no copy written" in out.stderr and not dest.exists()
+    assert "Europe" in out.stdout and "the site learns: not fitted: no target and hour has 500" in out.stdout
 
 
 def test_an_undetermined_level_keeps_the_sites_ground_and_moves_nothing(monkeypatch):
@@ -331,4 +335,116 @@ def test_an_undetermined_level_keeps_the_sites_ground_and_moves_nothing(monkeypa
     assert any("the site's moist loam is kept (salt marsh fitted best)" in n for n in f.notes)
     assert not any("P.372's" in n for n in f.notes)  # no level is said against P.372's curves
     lines = learn.fit_lines(f)
-    assert "offset +0.0 dB kept: not determined (the pairs' best, +5.6 dB, is no level)" in lines[2]
+    assert "offset +0.0 dB kept: not determined (the pairs' best, +5.6 dB, is not the site's level" in lines[2]
+
+
+def _edge_fit_one(d, *args):
+    """A stand-in for one ground's offset search whose best runs to the +30 dB edge: its prediction moves with the
+    offset (0.03 dB per dB, under MIN_SLOPE's reach for a level), so the kept offset's prediction and the best's
+    differ by 0.9 dB and a line showing the one for the other can be told."""
+
+    def at(d0, off):
+        return np.array([9.5 - 0.03 * off, 9.8 - 0.03 * off])
+
+    return {
+        "best": 30.0,
+        "cost": 1.0,
+        "slope": np.full(2, -0.02),
+        "after": at(d, 30.0),
+        "predicted": lambda off: at(d, off),
+        "predict_other": at,
+        "runs": 13,
+        "edges": (-30.0, 30.0),
+    }
+
+
+def _two_hours(medians=(5.8, 5.5)):
+    from types import SimpleNamespace
+
+    return SimpleNamespace(
+        groups=[
+            SimpleNamespace(target="Europe", hour=h, n=70, median_db=m, low_db=m - 0.6, high_db=m + 0.6)
+            for h, m in zip((0, 1), medians)
+        ]
+    )
+
+
+def test_an_undetermined_level_prints_the_kept_prediction_and_the_edge_in_words(monkeypatch):
+    """A practitioner's run: "offset +0.0 dB kept: not determined (the pairs' best, +30.0 dB, is no level)" and then
+    each hour "predicted +9.5 -> +8.7 dB", the "after" being the prediction at the rejected +30 dB edge; the rms
+    misfit too said "4.2 -> 2.8".  Now every line shows what was kept (the site's offset and ground), the edge is
+    said as the search's edge, and the JSON gives no fitted level."""
+    monkeypatch.setattr(learn, "_fit_one", _edge_fit_one)
+    f = learn.fit_offset(_two_hours(), WREN, grounds=learn.LAND_GROUNDS)
+    assert not f.identifiable and f.ground == f.ground_before == "moist loam"
+    lines = learn.fit_lines(f)
+    said = "\n".join(lines)
+    assert "offset +0.0 dB kept: not determined (the pairs' best lies at the search's edge, +30 dB)" in lines[2]
+    assert "is no level" not in said and "+30.0 dB" not in said
+    rms_kept = float(np.sqrt(np.mean((np.array([9.5, 9.8]) - [5.8, 5.5]) ** 2)))
+    assert f"rms misfit {rms_kept:.1f} dB over 2 group(s) at the kept offset" in lines[2]
+    hours = [ln for ln in lines if " UTC  measured" in ln]
+    assert len(hours) == 2 and not any("->" in ln for ln in hours)
+    assert hours[0].endswith("predicted  +9.5 dB") and hours[1].endswith("predicted  +9.8 dB")
+    got = f.as_dict()
+    assert got["determined"] is False and got["fitted_db"] is None and got["tolerance_90_db"] is None
+    assert got["pairs_best_db"] == 30.0 and got["pairs_best_at_search_edge"] is True
+    assert any("search's edge" in w for w in got["not_determined_because"])
+    assert got["rms_misfit_after_db"] == pytest.approx(rms_kept)
+    assert [g["predicted_after_db"] for g in got["groups"]] == [g["predicted_before_db"] for g in got["groups"]]
+
+
+def test_a_determined_level_still_prints_its_move(monkeypatch):
+    # the same stand-in with a best inside the search and a slope the pairs can read: the lines say the move
+    def fit_one(d, *args):
+        out = _edge_fit_one(d)
+        return {**out, "best": -4.0, "slope": np.full(2, -0.5), "after": out["predicted"](-4.0)}
+
+    monkeypatch.setattr(learn, "_fit_one", fit_one)
+    f = learn.fit_offset(_two_hours((9.7, 9.9)), WREN)
+    assert f.identifiable and f.as_dict()["determined"] is True and f.as_dict()["fitted_db"] == -4.0
+    lines = learn.fit_lines(f)
+    assert "offset +0.0 dB -> -4.0 dB, +-" in lines[2] and "rms misfit" in lines[2] and " -> " in lines[2]
+    assert any(ln.endswith("predicted  +9.5 ->  +9.6 dB") for ln in lines)
+
+
+def _undetermined(reason_note: str) -> learn.OffsetFit:
+    return learn.OffsetFit(
+        0.0,
+        30.0,
+        float("inf"),
+        4.2,
+        4.2,
+        [],
+        1,
+        [reason_note],
+        ground_before="moist loam",
+        ground="moist loam",
+        not_determined_because=("their best lies at the search's edge, +30 dB",),
+        edge_db=30.0,
+    )
+
+
+def test_write_with_an_undetermined_level_prints_the_comparison_and_fails_with_1(tmp_path, monkeypatch):
+    """verify --write where the pairs do not determine the level exited 2, the code of a bad input, with only the
+    refusal printed.  It is no fault of the input: now the comparison and the fit are printed, no copy is written,
+    and the command fails (1) saying why on stderr."""
+    from snrgain.cli.main import cli
+
+    monkeypatch.setattr(learn, "fit_offset", lambda *a, **k: _undetermined("a note"))
+    pa, pb = _logs(tmp_path, 0.0, seed=4, stations=1)
+    dest = tmp_path / "learned.toml"
+    args = ["verify", WREN, "--a", A, "--b", B, "--log-a", str(pa), "--log-b", str(pb), "--write", str(dest)]
+    out = CliRunner().invoke(cli, args)
+    assert out.exit_code == 1 and not dest.exists()
+    assert "Europe" in out.stdout and "offset +0.0 dB kept: not determined" in out.stdout
+    assert (
+        "--write: the pairs do not determine the site's man-made level (their best lies at the search's edge, "
+        "+30 dB); no copy written" in out.stderr
+    )
+    assert "Traceback" not in out.output
+    js = CliRunner().invoke(cli, [*args, "--format", "json"])
+    import json
+
+    got = json.loads(js.stdout)["learned"]
+    assert js.exit_code == 1 and got["written"] is None and got["determined"] is False and not dest.exists()

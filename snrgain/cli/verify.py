@@ -7,10 +7,12 @@ from pathlib import Path
 import click
 
 from snrgain.cli.options import (
+    EXIT_FAILURE,
     FiniteRange,
     check_output,
     composed_name,
     emit_json,
+    fail,
     handle_errors,
     overwrite_option,
     p372_dir_option,
@@ -105,7 +107,8 @@ from snrgain.cli.options import (
     "write_to",
     type=click.Path(dir_okay=False, path_type=str),
     default=None,
-    help="Write a copy of the SCENARIO with the fitted man-made offset (implies --fit; --overwrite to replace).",
+    help="Write a copy of the SCENARIO with the fitted man-made offset (implies --fit; --overwrite to replace); "
+    "where the pairs give no level, no copy and exit 1.",
 )
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @plot_option("the figure of predicted bands and measured intervals per target and hour")
@@ -201,12 +204,16 @@ def verify(
         if learned is not None:
             out["learned"] = learned
         emit_json(out)
-        return
-    click.echo("\n".join(vf.report_lines(res) + lines))
+    else:
+        click.echo("\n".join(vf.report_lines(res) + lines))
+    if learned is not None and learned.get("not_written_because"):  # no fault of the input: the fit says no level
+        fail(f"--write: {learned['not_written_because']}; no copy written", EXIT_FAILURE)
 
 
 def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=False):
-    """Fit the man-made offset, write the copy if asked, and say how it moved the prediction."""
+    """Fit the man-made offset, write the copy if asked, and say how it moved the prediction.  Where the pairs
+    give no level (too few, or a level they do not determine), --write writes nothing and the answer's
+    ``not_written_because`` says why: the command prints what it found and then fails (1), as no input was wrong."""
     from pathlib import Path
 
     from snrgain.cli.options import read_scenario_text, write_output
@@ -218,18 +225,23 @@ def _learn(res, scenario, write_to, overwrite, min_pairs, p372_dir, fit_ground=F
         try:
             f = learn.fit_offset(res, scenario, p372_dir=p372_dir, min_pairs=min_pairs, grounds=grounds)
         except learn.NothingToFit as exc:  # the comparison stands; only the fit has too little to go on
+            out = {"not_fitted": str(exc)}
             if write_to is not None:
-                raise ValueError(f"--write: {exc}; no copy written") from None
-            return {"not_fitted": str(exc)}, ["", f"the site learns: not fitted: {exc}"]
+                out |= {"written": None, "not_written_because": str(exc)}
+            return out, ["", f"the site learns: not fitted: {exc}"]
         moved = []
         if f.identifiable:  # an undetermined level moves nothing: its "after" is no prediction
             data, label, base_dir = read_source(Path(scenario))
             moved = learn.moves(data, base_dir, label, f.before_db, f.offset_db, ground=f.ground, p372_dir=p372_dir)
     out = {**f.as_dict(), "moves": moved}
     lines = learn.fit_lines(f) + (learn.move_lines(moved) if f.identifiable else [])
-    if write_to is not None:
-        if not f.identifiable:
-            raise ValueError(f"--write: {f.notes[0]}; no copy written")
+    if write_to is not None and not f.identifiable:
+        because = "; ".join(f.not_determined_because) or "the notes say why"
+        out |= {
+            "written": None,
+            "not_written_because": f"the pairs do not determine the site's man-made level ({because})",
+        }
+    elif write_to is not None:
         note = f"fitted to {sum(g['n_pairs'] for g in f.groups)} paired decodes, +-{f.tolerance_db:.1f} dB (90 %)"
         text = learn.write_offset(read_scenario_text(scenario), f.offset_db, note)
         if f.ground is not None and f.ground != f.ground_before:

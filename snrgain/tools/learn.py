@@ -236,24 +236,36 @@ class OffsetFit:
     """Half-width of the fitted offset's 90 % interval [dB]; inf when the pairs cannot tell the level."""
     rms_before_db: float
     rms_after_db: float
+    """The rms misfit with what was kept: the fitted offset (and ground), or the site's own where the level is not
+    determined [dB]."""
     groups: list[dict]
-    """Per (target, hour): n, measured median, its sigma, predicted before and after, slope [dB/dB]."""
+    """Per (target, hour): n, measured median, its sigma, predicted before and after (after: with what was kept,
+    so the same as before where the level is not determined), slope [dB/dB]."""
     runs: int
     notes: list[str] = field(default_factory=list)
     ground_before: str | None = None
     ground: str | None = None
     """The ground class fitted (None: the ground was not fitted)."""
+    not_determined_because: tuple[str, ...] = ()
+    """Why the pairs do not determine the level, each in a few words (empty when they do)."""
+    edge_db: float | None = None
+    """The edge of the offset search the pairs' best lies at [dB] (None: within the search)."""
 
     @property
     def identifiable(self) -> bool:
         return bool(np.isfinite(self.tolerance_db))
 
     def as_dict(self) -> dict:
+        ok = self.identifiable
         return {
             "quantity": "noise.man_made.offset",
             "before_db": self.before_db,
-            "fitted_db": self.offset_db,
-            "tolerance_90_db": self.tolerance_db if self.identifiable else None,
+            "determined": ok,
+            "not_determined_because": list(self.not_determined_because),
+            "fitted_db": self.offset_db if ok else None,
+            "pairs_best_db": self.offset_db,
+            "pairs_best_at_search_edge": self.edge_db is not None,
+            "tolerance_90_db": self.tolerance_db if ok else None,
             "rms_misfit_before_db": self.rms_before_db,
             "rms_misfit_after_db": self.rms_after_db,
             "groups": self.groups,
@@ -399,8 +411,10 @@ def fit_offset(
     p0 = one["predict_other"](base_data, before) if grounds else one["predicted"](before)
     best, slope = one["best"], one["slope"]
     info = float(np.sum((slope / sigma) ** 2))
+    why = []  # why the level is not determined, in a few words each (the notes say it at length)
     if np.max(np.abs(slope)) < MIN_SLOPE or info <= 0:
         tol = float("inf")
+        why.append("the predicted difference hardly changes with it")
         notes.insert(
             0,
             "the predicted difference hardly changes with the man-made level here (both antennas hear it alike): "
@@ -412,8 +426,10 @@ def fit_offset(
     unexplained = misfit_note(p1, meas, sigma, fitted=2 if grounds else 1)
     if unexplained and np.isfinite(tol):
         tol = float("inf")  # no level is fitted where the level does not explain the pairs: nothing to write
+        why.append("no level explains them")
         notes.insert(0, unexplained)
-    if best <= one["edges"][0] + 0.1 or best >= one["edges"][1] - 0.1:
+    edge_first, edge_ground = at_edge(best, one["edges"]), best_ground
+    if edge_first is not None:
         tol = float("inf")  # an edge of the search is no level: nothing to write
         notes.append(
             f"the best offset{' over ' + best_ground if grounds else ''} lies at the edge of the search "
@@ -427,6 +443,13 @@ def fit_offset(
         )
         best_ground, one = ground0, tried[ground0]
         best, slope, p1 = one["best"], one["slope"], one["after"]
+    edge = at_edge(best, one["edges"])
+    if edge is not None:
+        why.append(f"their best lies at the search's edge, {edge:+g} dB")
+    elif edge_first is not None:  # the class of least misfit ran to the edge; the site's own, kept, did not
+        why.append(f"their best over {edge_ground} lies at the search's edge, {edge_first:+g} dB")
+    if not np.isfinite(tol):
+        p1 = p0  # what is kept is the site's own offset and ground: "after" is its prediction, the best is no level
     from snrgain.scenario.noise import ManMade
     from snrgain.units import parse_quantity
 
@@ -462,7 +485,18 @@ def fit_offset(
         notes,
         ground_before=ground0,
         ground=best_ground,
+        not_determined_because=tuple(dict.fromkeys(why)) if not np.isfinite(tol) else (),
+        edge_db=edge,
     )
+
+
+def at_edge(best: float, edges: tuple[float, float]) -> float | None:
+    """The edge of the offset search [dB] that ``best`` lies at (within 0.1 dB), or None."""
+    if best <= edges[0] + 0.1:
+        return float(edges[0])
+    if best >= edges[1] - 0.1:
+        return float(edges[1])
+    return None
 
 
 MISFIT_P = 0.001
@@ -545,16 +579,24 @@ def _fit_one(data, label, base_dir, result, groups, meas, sigma, p372_dir) -> di
 
 
 def fit_lines(f: OffsetFit) -> list[str]:
+    """The fit as the terminal shows it; where the level is not determined, every line shows what was kept (the
+    site's offset and ground) and the pairs' best is said only in words."""
     if f.identifiable:
-        said = f"offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, +-{f.tolerance_db:.1f} dB (90 %)"
-    else:
         said = (
-            f"offset {f.before_db:+.1f} dB kept: not determined (the pairs' best, {f.offset_db:+.1f} dB, is no level)"
+            f"offset {f.before_db:+.1f} dB -> {f.offset_db:+.1f} dB, +-{f.tolerance_db:.1f} dB (90 %); rms misfit "
+            f"{f.rms_before_db:.1f} -> {f.rms_after_db:.1f} dB"
         )
+    else:
+        best = (
+            f"the pairs' best lies at the search's edge, {f.edge_db:+g} dB"
+            if f.edge_db is not None
+            else f"the pairs' best, {f.offset_db:+.1f} dB, is not the site's level: the notes say why"
+        )
+        said = f"offset {f.before_db:+.1f} dB kept: not determined ({best}); rms misfit {f.rms_before_db:.1f} dB"
     out = [
         "",
         "the site learns (noise.man_made.offset, fitted to the pairs per target and hour):",
-        f"  {said}; rms misfit {f.rms_before_db:.1f} -> {f.rms_after_db:.1f} dB over {len(f.groups)} group(s), "
+        f"  {said} over {len(f.groups)} group(s){'' if f.identifiable else ' at the kept offset'}, "
         f"{f.runs} pipeline runs",
     ]
     if f.ground is not None and f.ground == f.ground_before:
@@ -563,9 +605,10 @@ def fit_lines(f: OffsetFit) -> list[str]:
         out.append(f"  ground {f.ground_before} -> {f.ground} (the class whose best offset fits best)")
     wt = max((len(g["target"]) for g in f.groups), default=0)
     for g in f.groups:
+        moved = f" -> {g['predicted_after_db']:+5.1f}" if f.identifiable else ""
         out.append(
             f"  {g['target']:<{wt}} {g['utc_hour']:02d} UTC  measured {g['measured_median_db']:+5.1f}  predicted "
-            f"{g['predicted_before_db']:+5.1f} -> {g['predicted_after_db']:+5.1f} dB"
+            f"{g['predicted_before_db']:+5.1f}{moved} dB"
         )
     out += [f"  note: {n}" for n in f.notes]
     return out
