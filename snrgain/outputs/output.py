@@ -56,12 +56,18 @@ def band_plan_text(br):
     from snrgain.outputs.messages import plan_not_best_text
 
     p = br.plan
-    ref = br.bands[0][1].reference.name
+    refs = list(dict.fromkeys(r.reference.name for _, r in br.bands))
+    # one reference for every band, or each band its own ([[band]] reference): the plan is over each band's
+    ref = (
+        refs[0]
+        if len(refs) == 1
+        else "each band's reference (" + "; ".join(f"{name}: {r.reference.name}" for name, r in br.bands) + ")"
+    )
     out = Text()
     out.append("Station plan for every band", style="bold")
     limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
     if not p.antennas:
-        out.append(f"{limit}: no candidate adds {0.1:g} dB or more on any band; keep {ref}.\n")
+        out.append(f"{limit}: no candidate adds {0.1:g} dB or more on any band; keep {' and '.join(refs)}.\n")
         return out
     out.append(
         f"{limit}: build {len(p.antennas)}, worth {signed_text(p.gain_db)} dB over {ref} alone (each band and target's "

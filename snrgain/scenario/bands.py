@@ -4,7 +4,10 @@ A station plans its receiving antennas for 160, 80 and 40 m at once.  The file t
 (each with ``frequency``, ``bandwidth`` and optionally ``name``, ``months`` and ``utc_hours``), and a target may
 name the bands it is listened on (``bands = ["160 m"]``; default every band).  :func:`split_bands` turns such a
 file into one single-band scenario per band: the band's table as ``[band]`` (its months and hours win over
-``[time]``'s, a target's own over both), and only the targets listened on it.  Each goes through the whole pipeline as
+``[time]``'s, a target's own over both), and only the targets listened on it.  A candidate may name the bands it
+is built for (``bands``, default every band: a 40 m array whose elements are too tall for 80 m, a 160 m wire), and a
+band's table may hold its own ``reference`` antenna (as ``[reference]`` is written) where the file's does not serve
+that band (a transmitting vertical too tall for 40 m).  Each goes through the whole pipeline as
 it is, so a band's answer is exactly what a file of that band alone gives; the station plan across the bands
 (:func:`snrgain.decide.plan.plan_across_bands`) then uses the same statistic as each band's.
 """
@@ -27,43 +30,87 @@ def band_label(table: dict) -> str:
 
 def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None, dict]]:
     """(band name, single-band scenario) for each band of ``data``; a file with one ``[band]`` table gives
-    [(None, data)] unchanged.  ScenarioError naming the field for bands that cannot be told apart or targets naming
-    bands the file lacks."""
+    [(None, data)] (its candidates' ``bands`` dropped once checked).  ScenarioError naming the field for bands that
+    cannot be told apart, targets or candidates naming bands the file lacks, or a band left without a target or a
+    candidate."""
     band = data.get("band")
     if not isinstance(band, list):
         if isinstance(band, dict):
             here = band_label(band)
             problems = [
                 (
-                    f"target {i + 1}.bands",
+                    f"{what} {i + 1}.bands",
                     f"no band named {sorted(set(t['bands']) - {here})}; the only band is {here!r}",
                 )
-                for i, t in enumerate(data.get("target") if isinstance(data.get("target"), list) else [])
+                for what in ("target", "candidate")
+                for i, t in enumerate(_listed(data, what))
                 if isinstance(t, dict) and isinstance(t.get("bands"), list) and set(t["bands"]) - {here}
             ]
             if problems:
                 raise ScenarioError(label, problems)
+            if any(isinstance(c, dict) and "bands" in c for c in _listed(data, "candidate")):
+                data = {**data, "candidate": _on_band(_listed(data, "candidate"), here)}
         return [(None, data)]
-    names, targets = _check_bands(band, data, label)
+    names = _check_bands(band, data, label)
     out = []
     for name, table in zip(names, band):
         one = copy.deepcopy(data)
-        one["band"] = copy.deepcopy(table)  # its months and hours win over [time]'s (ScenarioModel.listening)
-        one["target"] = [
-            {k: copy.deepcopy(v) for k, v in t.items() if k != "bands"} if isinstance(t, dict) else t
-            for t in targets
-            if not isinstance(t, dict) or t.get("bands") is None or name in t.get("bands", [])
-        ]  # a band's own file: its targets need no band names
-        if not one["target"]:
-            raise ScenarioError(
-                label, [(f'band "{name}"', "no target is listened on this band; name it in a target's bands")]
-            )
+        own = copy.deepcopy(table)  # its months and hours win over [time]'s (ScenarioModel.listening)
+        if "reference" in own:  # the band's own reference antenna, in place of [reference]
+            one["reference"] = own.pop("reference")
+        one["band"] = own
+        for what in ("target", "candidate"):  # a band's own file: its targets and candidates need no band names
+            if what in data:
+                one[what] = _on_band(_listed(data, what), name)
+            if what == "target" and not one.get(what):
+                raise ScenarioError(
+                    label, [(f'band "{name}"', "no target is listened on this band; name it in a target's bands")]
+                )
+        _check_parts_on_band(one, name, label)
         out.append((name, one))
     return out
 
 
-def _check_bands(band: list, data: dict, label: str) -> tuple[list[str], list]:
-    """The bands' names and the targets of a file of several bands; ScenarioError naming every problem."""
+def _listed(data: dict, what: str) -> list:
+    """The file's ``[[target]]`` or ``[[candidate]]`` entries (none where the key is missing or not a list)."""
+    items = data.get(what)
+    return items if isinstance(items, list) else []
+
+
+def _on_band(items: list, name: str) -> list:
+    """The entries listened on (targets) or built for (candidates) band ``name``, without their ``bands`` key."""
+    return [
+        {k: copy.deepcopy(v) for k, v in t.items() if k != "bands"} if isinstance(t, dict) else t
+        for t in items
+        if not isinstance(t, dict) or t.get("bands") is None or name in t.get("bands", [])
+    ]
+
+
+def _check_parts_on_band(one: dict, name: str, label: str) -> None:
+    """A phasing unit (a candidate naming two antennas in ``antennas``) on a band needs both on that band."""
+    here = {c.get("name") for c in _listed(one, "candidate") if isinstance(c, dict)} | {"reference"}
+    ref = one.get("reference")
+    if isinstance(ref, dict):
+        here.add(ref.get("name"))
+    problems = []
+    for c in _listed(one, "candidate"):
+        parts = c.get("antennas") if isinstance(c, dict) else None
+        if isinstance(parts, list):
+            missing = [p for p in parts if isinstance(p, str) and p not in here]
+            if missing:
+                problems.append(
+                    (
+                        f"candidate {c.get('name')!r}.antennas",
+                        f"{', '.join(map(repr, missing))} is not built for band {name!r} (its bands), while this "
+                        "phasing unit is: give the unit the same bands as its antennas",
+                    )
+                )
+    if problems:
+        raise ScenarioError(label, problems)
+
+
+def _check_bands(band: list, data: dict, label: str) -> list[str]:
+    """The bands' names of a file of several bands; ScenarioError naming every problem."""
     if not band or len(band) > MAX_BANDS:
         raise ScenarioError(label, [("band", f"give 1 to {MAX_BANDS} [[band]] tables; got {len(band)}")])
     if not all(isinstance(b, dict) for b in band):
@@ -73,23 +120,28 @@ def _check_bands(band: list, data: dict, label: str) -> tuple[list[str], list]:
     for i, name in enumerate(names):
         if name in names[:i]:
             problems.append((f"band {i + 1}.name", f"{name!r} is already used by band {names.index(name) + 1}"))
-    targets = data.get("target") if isinstance(data.get("target"), list) else []
-    for i, t in enumerate(targets):
-        wanted = t.get("bands") if isinstance(t, dict) else None
-        if wanted is not None:
-            if not isinstance(wanted, list) or not all(isinstance(w, str) for w in wanted):
+        if "reference" in band[i] and not isinstance(band[i]["reference"], dict):
+            problems.append(
+                (f'band "{name}".reference', "a table of the band's own reference antenna, as [reference] is written")
+            )
+    for what in ("target", "candidate"):
+        for i, t in enumerate(_listed(data, what)):
+            wanted = t.get("bands") if isinstance(t, dict) else None
+            if wanted is None:
+                continue
+            if not isinstance(wanted, list) or not wanted or not all(isinstance(w, str) for w in wanted):
                 problems.append(
-                    (f"target {i + 1}.bands", f"a list of band names, e.g. [{names[0]!r}]; got {toml_repr(wanted)}")
+                    (f"{what} {i + 1}.bands", f"a list of band names, e.g. [{names[0]!r}]; got {toml_repr(wanted)}")
                 )
                 continue
             unknown = sorted(set(wanted) - set(names))
             if unknown:
                 problems.append(
-                    (f"target {i + 1}.bands", f"no band named {unknown}; the bands are {', '.join(map(repr, names))}")
+                    (f"{what} {i + 1}.bands", f"no band named {unknown}; the bands are {', '.join(map(repr, names))}")
                 )
     if problems:  # the bands' own tables' problems said with them, not left for a second run
         raise ScenarioError(label, problems + [p for n, b in zip(names, band) for p in _table_problems(n, b)])
-    return names, targets
+    return names
 
 
 def _table_problems(name: str, table: dict) -> list[tuple[str, str]]:
@@ -101,7 +153,7 @@ def _table_problems(name: str, table: dict) -> list[tuple[str, str]]:
     from .band import BandSection
 
     try:
-        BandSection.model_validate(table)
+        BandSection.model_validate({k: v for k, v in table.items() if k != "reference"})
     except ValidationError as exc:
         return [(f'band "{name}": {where}', why) for where, why in pydantic_problems(exc, "band", table)]
     return []
