@@ -9,44 +9,9 @@ import snrgain
 from snrgain.cli.main import cli
 from snrgain.errors import ScenarioError
 from snrgain.model.pipeline import evaluate_bands
+from tests.scenario_text import VERTICAL, scenario_text
 
-STATION = """
-[site]
-name = "Quillon Hill (invented)"
-latitude = 45.1
-longitude = -75.9
-ground = "moist loam"
-
-[[band]]
-name = "160 m"
-frequency = "1.83 MHz"
-bandwidth = "500 Hz"
-
-[[band]]
-name = "40 m"
-frequency = "7.03 MHz"
-bandwidth = "500 Hz"
-BAND_REFERENCE
-
-[time]
-months = [1]
-utc_hours = [0, 4]
-
-[noise.man_made]
-environment = "rural"
-
-[[target]]
-name = "Europe"
-bearing = 50
-elevation = [5, 20]
-
-[reference]
-name = "TX vertical"
-family = "vertical"
-height = "18 m"
-top_loading = "12 m"
-position = [0, 0]
-
+CANDIDATES = """
 [[candidate]]
 name = "Beverage NE"
 family = "beverage"
@@ -64,11 +29,19 @@ positions = [[60, 60], [66, 66]]
 height = "4 m"
 bearing = 50
 """
+TALL = VERTICAL.format(height="18 m", east=0, north=0) + 'top_loading = "12 m"\n'
 OWN_REFERENCE = 'reference = { name = "40 m vertical", family = "vertical", height = "10 m", position = [0, 0] }'
 
 
 def _station(band_reference: str = OWN_REFERENCE) -> str:
-    return STATION.replace("BAND_REFERENCE", band_reference)
+    return scenario_text(
+        name="Quillon Hill",
+        ground='"moist loam"',
+        bands={"160 m": ("1.83 MHz", ""), "40 m": ("7.03 MHz", band_reference + "\n")},
+        utc_hours=(0, 4),
+        reference=TALL,
+        candidates=CANDIDATES,
+    )
 
 
 def test_a_candidate_is_built_for_its_bands_and_a_band_ranks_against_its_own_reference(tmp_path):
@@ -131,14 +104,8 @@ def test_a_phasing_unit_needs_its_antennas_on_its_bands():
 
 
 def test_a_file_of_one_band_takes_a_candidates_bands_naming_that_band_only():
-    one = (
-        _station()
-        .replace('[[band]]\nname = "160 m"\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n\n', "")
-        .replace("[[band]]", "[band]")
-    )
-    one = one.replace(OWN_REFERENCE, "")
-    one = one.replace('top_loading = "12 m"\n', "")  # an 18 m vertical serves 40 m
-    sc = snrgain.scenario.load(one)
+    one = scenario_text(frequency="7.03 MHz", candidates=CANDIDATES)  # [band] "7.03 MHz" with a 20 m vertical
+    sc = snrgain.scenario.load(one.replace('bands = ["40 m"]', 'bands = ["7.03 MHz"]'))
     assert [a.name for a in sc.candidates] == ["Beverage NE", "40 m pair"]
-    with pytest.raises(ScenarioError, match=r"no band named \['160 m'\]; the only band is '40 m'"):
-        snrgain.scenario.load(one.replace('bands = ["40 m"]', 'bands = ["160 m"]'))
+    with pytest.raises(ScenarioError, match=r"no band named \['40 m'\]; the only band is '7.03 MHz'"):
+        snrgain.scenario.load(one)

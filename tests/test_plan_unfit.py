@@ -12,35 +12,9 @@ import snrgain
 from snrgain.cli.main import cli
 from snrgain.decide.plan import station_plan
 from snrgain.model.pipeline import evaluate_bands
+from tests.scenario_text import scenario_text
 
-SITE = """
-[site]
-name = "Thistle Row (invented)"
-latitude = 44.2
-longitude = -72.6
-ground = "medium dry ground"
-lot = [[-20, -20], [LOT_E, -20], [LOT_E, 120], [-20, 120]]
-
-BANDS
-
-[time]
-months = [1]
-utc_hours = [2, 4]
-
-[noise.man_made]
-environment = "rural"
-
-[[target]]
-name = "Europe"
-bearing = 90
-elevation = [5, 20]
-
-[reference]
-name = "TX vertical"
-family = "vertical"
-height = "20 m"
-position = [0, 0]
-
+CANDIDATES = """
 [[candidate]]
 name = "Beverage east"
 family = "beverage"
@@ -60,15 +34,17 @@ height = "1.5 m"
 bearing = 90
 termination = "900 ohm"
 """
-ONE_BAND = '[band]\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"'
-TWO_BANDS = (
-    '[[band]]\nname = "160 m"\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n\n'
-    '[[band]]\nname = "80 m"\nfrequency = "3.55 MHz"\nbandwidth = "500 Hz"'
-)
+TWO_BANDS = {"160 m": ("1.83 MHz", ""), "80 m": ("3.55 MHz", "")}
 
 
-def _site(lot_east: float, bands: str = ONE_BAND) -> str:
-    return SITE.replace("LOT_E", str(lot_east)).replace("BANDS", bands)
+def _site(lot_east: float, bands=None) -> str:
+    return scenario_text(
+        name="Thistle Row",
+        site_extra=f"lot = [[-20, -20], [{lot_east}, -20], [{lot_east}, 120], [-20, 120]]\n",
+        bands=bands,
+        targets=(("Europe", 90, 5, 20),),
+        candidates=CANDIDATES,
+    )
 
 
 def test_a_beverage_that_runs_off_the_lot_is_ranked_but_not_built():

@@ -21,6 +21,7 @@ from snrgain.antennas.coupling import monopole_impedance
 from snrgain.physics import scatter
 from snrgain.physics.scatter import TxVertical, with_vertical
 from tests.nec.necdeck import metrics_toward
+from tests.scenario_text import VERTICAL, scenario_text
 
 REF = json.loads((Path(__file__).parent / "nec" / "scatter.json").read_text())
 F_HZ = REF["freq_mhz"] * 1e6
@@ -832,41 +833,20 @@ def test_a_broadside_pairs_lobe_is_the_one_toward_its_bearing(bearing):
     assert np.degrees(main_lobe_rad(az, two * (1 + 0.5 * np.cos(az)), np.radians(180.0))) == pytest.approx(0.0)
 
 
-LINES_FED = """
-[site]
-name = "Larchmere Lane (invented)"
-latitude = 41.18
-longitude = -77.46
-ground = { conductivity = "4 mS/m", permittivity = 13 }
-tx_state = "resonant"
-[band]
-frequency = "3.525 MHz"
-bandwidth = "500 Hz"
-[time]
-months = [1]
-utc_hours = [2]
-[noise.man_made]
-environment = "residential"
-[[target]]
-name = "South America"
-bearing = 149
-elevation = [5, 10]
-[reference]
-name = "TX vertical"
-family = "vertical"
-height = "15 m"
-top_loading = "6 m"
-ground_loss = "8 ohm"
-position = [49.6, 14.4]
-[[candidate]]
-name = "four-square lines"
-family = "phased-verticals"
-positions = [[6, 40], [24, 40], [6, 58], [24, 58]]
-height = "7 m"
-ground_loss = "30 ohm"
-bearing = 135
-feed = "lines"
-"""
+SQUARE = (
+    '[[candidate]]\nname = "four-square {feed}"\nfamily = "phased-verticals"\n'
+    'positions = [[6, 40], [24, 40], [6, 58], [24, 58]]\nheight = "7 m"\nground_loss = "30 ohm"\nbearing = 135\n'
+)
+LINES_FED = scenario_text(
+    name="Larchmere Lane",
+    ground='{ conductivity = "4 mS/m", permittivity = 13 }',
+    site_extra='tx_state = "resonant"\n',
+    frequency="3.525 MHz",
+    environment="residential",
+    targets=(("South America", 149, 5, 10),),
+    reference=VERTICAL.format(height="15 m", east=49.6, north=14.4) + 'top_loading = "6 m"\nground_loss = "8 ohm"\n',
+    candidates=SQUARE.format(feed="lines") + 'feed = "lines"\n',
+)
 
 
 def test_a_lines_fed_array_feels_the_vertical_as_its_currents_do():
@@ -880,11 +860,9 @@ def test_a_lines_fed_array_feels_the_vertical_as_its_currents_do():
     i = lines.currents(sc.freq_hz)
     amps = np.abs(i) / np.abs(i).max()
     lags = np.mod(-np.degrees(np.angle(i)), 360.0)
-    forced = (
-        '\n[[candidate]]\nname = "four-square forced"\nfamily = "phased-verticals"\n'
-        "positions = [[6, 40], [24, 40], [6, 58], [24, 58]]\n"
-        'height = "7 m"\nground_loss = "30 ohm"\nbearing = 135\nfeed = "current"\nsteering = "given"\n'
-        f'amplitudes = {[float(a) for a in amps]}\nphases = {[float(x) for x in lags]}\nphase_sense = "lag"\n'
+    forced = SQUARE.format(feed="forced") + (
+        f'feed = "current"\nsteering = "given"\namplitudes = {[float(a) for a in amps]}\n'
+        f'phases = {[float(x) for x in lags]}\nphase_sense = "lag"\n'
     )
     r = snrgain.evaluate(LINES_FED + forced)
     rows = {t["antenna"]: t for t in r.tx_vertical}
