@@ -20,6 +20,9 @@ class BandSection(StrictModel):
     """The months listened on this band (default: [time] months)."""
     utc_hours: Hours | None = None
     """The UTC hours listened on this band (default: [time] utc_hours)."""
+    reference: dict | None = None
+    """A band's own reference antenna in a file of several bands (a table written as [reference] is): taken out by
+    snrgain.scenario.bands before the band is loaded, where it replaces [reference]; refused under a lone [band]."""
 
 
 @resolved_from(BandSection, rename={"frequency": "freq_hz", "bandwidth": "bandwidth_hz"})

@@ -25,9 +25,10 @@ from snrgain.problems import toml_repr
 from snrgain.records import record
 from snrgain.units import bearing_deg
 
-CANDIDATE_KEYS = ("directions",)
+CANDIDATE_KEYS = ("directions", "bands")
 """Keys a candidate table may hold besides its family's, ``place`` and ``chain`` (taken out before the family
-validates the rest)."""
+validates the rest; ``bands``, the bands of a file of several a candidate is built for, is read by
+snrgain.scenario.bands before a band is loaded)."""
 MAX_DIRECTIONS = 8
 """The most states a switched antenna may have (eight points of the compass)."""
 
