@@ -109,3 +109,86 @@ def test_a_file_of_one_band_takes_a_candidates_bands_naming_that_band_only():
     assert [a.name for a in sc.candidates] == ["Beverage NE", "40 m pair"]
     with pytest.raises(ScenarioError, match=r"no band named \['40 m'\]; the only band is '7.03 MHz'"):
         snrgain.scenario.load(one)
+
+
+UNIT = (
+    '\n[[candidate]]\nname = "unit"\nfamily = "combination"\nbands = ["40 m"]\n'
+    'antennas = ["Beverage NE", "40 m pair"]\n'
+)
+
+
+def test_a_unit_built_for_one_band_builds_its_parts_on_every_band(tmp_path):
+    # The plan for every band builds the unit (40 m) and so its Beverage, which serves 160 m alone: one antenna to
+    # build, not two, and the Beverage's warnings on 160 m are about what gets built (said, not set apart).
+    from dataclasses import replace
+
+    noisy = '\n[receiver]\nnoise_figure = "25 dB"\n'  # a deaf receiver: the Beverage's floor is said on 40 m
+    br = evaluate_bands(_station() + UNIT + noisy)
+    assert br.plan.antennas == ["unit"]  # the Beverage comes with it (without the parts, both were built)
+    assert {"unit", "Beverage NE", "40 m pair"} <= br.built_names()
+    (floor,) = [n for n in br.band("40 m").notices if n.antenna == "Beverage NE"]
+    on_160 = replace(br, bands=(("160 m", replace(br.band("160 m"), notices=[floor])), br.bands[1]))
+    said, apart = on_160.warnings_apart()  # said of the Beverage on 160 m, where the unit is no candidate
+    assert "Beverage NE" not in apart and any(w.startswith("[160 m") and "Beverage NE:" in w for w in said)
+    path = tmp_path / "unit.toml"
+    path.write_text(_station() + UNIT)
+    text = CliRunner().invoke(cli, ["rank", str(path)]).stdout
+    assert "1. unit: adds" in text and "(build Beverage NE and 40 m pair for it); serves 160 m, 40 m" in text
+
+
+def test_problems_name_candidates_as_the_file_numbers_them():
+    text = _station().replace('height = "2.5 m"', 'height = "-2 m"')  # the Beverage: candidate 1 of the file
+    bad = text.replace('name = "Beverage NE"', 'name = "first"', 1)
+    bad = bad.replace(
+        '[[candidate]]\nname = "first"',
+        '[[candidate]]\nname = "40 m only"\nbands = ["40 m"]\nfamily = '
+        '"vertical"\nheight = "6 m"\nposition = [90, 0]\n\n[[candidate]]\nname = "first"',
+        1,
+    )
+    with pytest.raises(ScenarioError) as exc:
+        snrgain.scenario.load(bad, band="160 m")  # on 160 m it is the band's candidate 1, the file's 2
+    assert [w for w, _ in exc.value.problems] == ['candidate 2 ("first").height']
+
+
+def test_a_band_without_a_candidate_or_with_a_lone_reference_is_said_in_words():
+    none_on_160 = _station().replace('termination = "500 ohm"', 'termination = "500 ohm"\nbands = ["40 m"]')
+    with pytest.raises(ScenarioError, match=r'band "160 m": no candidate is built for this band'):
+        evaluate_bands(none_on_160)
+    one = scenario_text(candidates=CANDIDATES.replace('bands = ["40 m"]\n', "")).replace(
+        '[band]\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n', f'[band]\nfrequency = "1.83 MHz"\n{OWN_REFERENCE}\n'
+    )
+    with pytest.raises(ScenarioError, match=r"band.reference: a band's own reference is for a file of several"):
+        snrgain.scenario.load(one)
+
+
+def test_the_band_reference_takes_the_transmitting_verticals_place_there():
+    named = _station().replace('ground = "moist loam"\n', 'ground = "moist loam"\ntransmitting = "TX vertical"\n')
+    assert snrgain.scenario.load(named, band="40 m").transmitting == "40 m vertical"
+    assert snrgain.scenario.load(named, band="160 m").transmitting == "TX vertical"
+
+
+def test_a_unit_over_a_switched_state_is_on_the_bands_of_its_antenna():
+    switched = _station().replace("bearing = 50\ntermination", 'directions = ["50 deg", "230 deg"]\ntermination', 1)
+    unit = (
+        '\n[[candidate]]\nname = "unit"\nfamily = "combination"\n'
+        'antennas = ["Beverage NE NE (50 deg)", "short whip"]\n\n'
+        '[[candidate]]\nname = "short whip"\nfamily = "vertical"\nheight = "6 m"\nposition = [80, 0]\n'
+    )
+    br = evaluate_bands(switched + unit)
+    assert "unit" in {a.name for a in br.band("160 m").candidates}
+
+
+def test_a_sweep_varies_a_candidate_on_its_own_bands_only(tmp_path):
+    import csv
+
+    path, out = tmp_path / "station.toml", tmp_path / "sweep.csv"
+    path.write_text(_station())
+    res = CliRunner().invoke(cli, ["sweep", str(path), "--vary", "40 m pair: height = 3 m, 4 m", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.open()))
+    assert {row["band"] for row in rows} == {"40 m"} and {row["antenna"] for row in rows} == {"40 m pair"}
+    one = tmp_path / "one.toml"  # a file of one band whose candidate names it: the sweep's quick path takes it
+    one.write_text(scenario_text(frequency="7.03 MHz", candidates=CANDIDATES).replace('["40 m"]', '["7.03 MHz"]'))
+    args = ["sweep", str(one), "--vary", "Beverage NE: length = 200 m, 250 m", "-o", str(out), "--overwrite"]
+    res = CliRunner().invoke(cli, args)
+    assert res.exit_code == 0, res.output  # it once stopped on the candidate's bands as an unknown key

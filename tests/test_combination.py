@@ -88,7 +88,7 @@ def test_the_plan_says_what_else_to_build(tmp_path):
 
     r = snrgain.evaluate(_scenario(_combo("auto")))
     assert r.plan.antennas[0] == "auto"
-    assert also_build(r, 0) == " (build sense for it)"
+    assert also_build([r], r.plan, 0) == " (build sense for it)"
     p = tmp_path / "s.toml"
     p.write_text(_scenario(_combo("auto")))
     res = CliRunner().invoke(cli, ["rank", str(p)])

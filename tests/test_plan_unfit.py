@@ -96,3 +96,16 @@ def test_a_phasing_unit_over_an_unfit_part_is_left_out_with_it():
     from snrgain.outputs.messages import plan_not_best_text
 
     assert "its part a enters the keep-out area 'house'" in plan_not_best_text("Europe", p.not_best[0])
+
+
+def test_a_plan_of_nothing_but_an_unfit_best_still_says_why(tmp_path):
+    from snrgain.outputs.output import plan_text
+    from snrgain.outputs.report import render
+
+    only = CANDIDATES[: CANDIDATES.index('[[candidate]]\nname = "flag east"')]
+    r = snrgain.evaluate(_site(120).replace(CANDIDATES, only))
+    assert r.plan.antennas == [] and r.plan.not_best[0]["reason"] == "unfit"
+    text = " ".join(str(plan_text(r)).split())
+    assert "no candidate adds 0.1 dB or more; keep TX vertical." in text and "runs off the lot" in text
+    html = render(r, draw=lambda jobs, **kw: [b"<svg></svg>" for _ in jobs])
+    assert "cannot be built where the file places it" in html

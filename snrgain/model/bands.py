@@ -41,14 +41,28 @@ class BandResults:
         from snrgain.model.results import apart_counts
         from snrgain.outputs.messages import notice_text
 
-        per_band, counts = [], {}
+        per_band, counts, seen = [], {}, set()
+        built = self.built_names()
         for name, r in self.bands:
-            built = None if self.plan is None else r.built_names(self.plan.antennas)
             said, apart = r.notices_apart(built)
             unit = r.site.get("length_unit", "m")
             per_band.append((name, [notice_text(n, unit=unit) for n in said]))
-            apart_counts(r, apart, counts)
+            once = []  # a warning said word for word on several bands counts once, as it would be said once
+            for n in apart:
+                key = (n.antenna, notice_text(n, unit=unit))
+                if key not in seen:
+                    seen.add(key)
+                    once.append(n)
+            apart_counts(r, once, counts)
         return self._marked(per_band), counts
+
+    def built_names(self) -> frozenset[str] | None:
+        """What the plan across the bands builds (:meth:`Results.built_names` of each band against it, taken
+        together: a phasing unit built for one band brings its parts on every band they serve); None without a
+        plan."""
+        if self.plan is None:
+            return None
+        return frozenset().union(*(r.built_names(self.plan.antennas) for _, r in self.bands))
 
     def _marked(self, per_band: list[tuple[str, list[str]]]) -> list[str]:
         from snrgain.outputs.messages import notice_text

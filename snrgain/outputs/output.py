@@ -66,26 +66,32 @@ def band_plan_text(br):
     out = Text()
     out.append("Station plan for every band", style="bold")
     limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
+    unit = br.bands[0][1].site.get("length_unit", "m")
     if not p.antennas:
         out.append(f"{limit}: no candidate adds {0.1:g} dB or more on any band; keep {' and '.join(refs)}.\n")
+        for c, why in sorted(p.not_best.items()):  # a best left out (one that cannot be built where it stands)
+            band, target = br.columns[c]
+            out.append(f"  Note: {band}: {plan_not_best_text(target, why, unit)}\n")
         return out
     out.append(
         f"{limit}: build {len(p.antennas)}, worth {signed_text(p.gain_db)} dB over {ref} alone (each band and target's "
         "median SNR gain on the antenna that serves it, averaged as power ratios, every band counting alike)\n"
     )
+    parts = {a.name: set(a.parts) for _, r in br.bands for a in r.candidates if a.parts}
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
+        mine = {name} | parts.get(name, set())  # a phasing unit serves through its own antennas too
         bands = sorted(
-            {br.columns[c][0] for c, rows in p.by_target.items() for srv in rows if name in (srv.antenna, srv.group)},
+            {br.columns[c][0] for c, rows in p.by_target.items() for srv in rows if mine & {srv.antenna, srv.group}},
             key=[b for b, _ in br.bands].index,
         )
-        out.append(f"  {k + 1}. {name}: adds {signed_text(added)} dB; serves {', '.join(bands)}\n")
+        more = also_build([r for _, r in br.bands], p, k)
+        out.append(f"  {k + 1}. {name}: adds {signed_text(added)} dB{more}; serves {', '.join(bands)}\n")
     for c, rows in sorted(p.by_target.items()):
         band, target = br.columns[c]
         served = "; ".join(f"{s.antenna} at {hours_text(s.utc_hours)} ({signed_text(s.snr_gain_db)} dB)" for s in rows)
         out.append(f"  {band}, {target}: {served}\n")
     for c, why in sorted(p.not_best.items()):
         band, target = br.columns[c]
-        unit = br.bands[0][1].site.get("length_unit", "m")
         out.append(f"  Note: {band}: {plan_not_best_text(target, why, unit)}\n")
     return out
 
@@ -333,14 +339,14 @@ def target_table(r: Results, i: int, lab=None):
     return Group(table, verdict, Text(""))
 
 
-def also_build(r: Results, k: int) -> str:
-    """For the plan's k-th antenna: " (build X for it)" when it is a combination whose other part is neither the
-    reference nor built earlier in the plan, else ""."""
-    p = r.plan
-    name = p.antennas[k]
-    ant = next((a for a in r.candidates if a.name == name), None)
-    parts = [] if ant is None else ant.parameters.get("antennas") or []  # only a combination holds antennas
-    needs = [x for x in parts if x != r.reference.name and x not in p.antennas[:k]]
+def also_build(results, plan, k: int) -> str:
+    """For the plan's k-th antenna: " (build X for it)" when it is a phasing unit whose parts (AntennaResult.parts)
+    are not a reference nor built earlier in the plan, else ""; ``results``: the Results it was ranked in (a plan
+    across bands: every band's)."""
+    name = plan.antennas[k]
+    ant = next((a for r in results for a in r.candidates if a.name == name), None)
+    refs = {r.reference.name for r in results} | {"reference"}
+    needs = [x for x in (() if ant is None else ant.parts) if x not in refs and x not in plan.antennas[:k]]
     return f" (build {' and '.join(needs)} for it)" if needs else ""
 
 
@@ -399,13 +405,15 @@ def plan_text(r: Results, label: str = "Station plan"):
     limit = f" (at most {p.max_antennas} beside the reference)" if p.max_antennas else ""
     if not p.antennas:
         out.append(f"{limit}: no candidate adds {0.1:g} dB or more; keep {r.reference.name}.\n")
+        for t, why in sorted(p.not_best.items()):  # a best left out (one that cannot be built where it stands)
+            out.append(f"  Note: {plan_not_best_text(r.targets[t]['name'], why, r.site.get('length_unit', 'm'))}\n")
         return out
     out.append(
         f"{limit}: build {len(p.antennas)}, worth {signed_text(p.gain_db)} dB over {r.reference.name} alone "
         f"({PLAN_WORTH})\n"
     )
     for k, (name, added) in enumerate(zip(p.antennas, p.added_db)):
-        out.append(f"  {k + 1}. {name}{switched_text(r, name)}: adds {signed_text(added)} dB{also_build(r, k)}\n")
+        out.append(f"  {k + 1}. {name}{switched_text(r, name)}: adds {signed_text(added)} dB{also_build([r], p, k)}\n")
         fragile = rests_on_place_text(r, name)
         if fragile:
             out.append(f"     {fragile}\n", style="bold")

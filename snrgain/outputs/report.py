@@ -288,8 +288,11 @@ def _plan(r) -> str:
 
     p = r.plan
     looks = looks_of(r)
-    if not p.antennas:
-        return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>"
+    unit = r.site.get("length_unit", "m")
+    if not p.antennas:  # with the note on a best left out (one that cannot be built where it stands)
+        return f"<p>No candidate adds 0.1 dB or more: keep {_e(r.reference.name)}.</p>" + "".join(
+            f"<p>{_e(plan_not_best_text(r.targets[t]['name'], why, unit))}</p>" for t, why in sorted(p.not_best.items())
+        )
     out = [
         f"<p>Build {len(p.antennas)}, worth <b>{signed_text(p.gain_db)} dB</b> over {_e(r.reference.name)} alone "
         f"({PLAN_WORTH}), in this order:</p><ol>"
@@ -297,7 +300,7 @@ def _plan(r) -> str:
 
     fragile = {n: rests_on_place_text(r, n) for n in p.antennas}
     out += [
-        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {signed_text(a)} dB{_e(also_build(r, k))}"
+        f"<li>{_swatch(looks, n)}{_e(n)}{_e(switched_text(r, n))}: adds {signed_text(a)} dB{_e(also_build([r], p, k))}"
         + (f"<br><b>{_e(fragile[n])}</b>" if fragile[n] else "")
         + "</li>"
         for k, (n, a) in enumerate(zip(p.antennas, p.added_db))
@@ -315,7 +318,6 @@ def _plan(r) -> str:
                 f"<td>{_f(s.snr_gain_db)}</td></tr>"
             )
     out.append("</table>")
-    unit = r.site.get("length_unit", "m")
     out += [
         f"<p>{_e(plan_not_best_text(r.targets[t]['name'], why, unit))}</p>" for t, why in sorted(p.not_best.items())
     ]

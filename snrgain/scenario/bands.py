@@ -46,6 +46,14 @@ def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None,
                 for i, t in enumerate(_listed(data, what))
                 if isinstance(t, dict) and isinstance(t.get("bands"), list) and set(t["bands"]) - {here}
             ]
+            if "reference" in band:
+                problems.append(
+                    (
+                        "band.reference",
+                        "a band's own reference is for a file of several bands ([[band]] tables); a file of one band "
+                        "writes it as [reference]",
+                    )
+                )
             if problems:
                 raise ScenarioError(label, problems)
             if any(isinstance(c, dict) and "bands" in c for c in _listed(data, "candidate")):
@@ -58,17 +66,45 @@ def split_bands(data: dict, label: str = "<scenario>") -> list[tuple[str | None,
         own = copy.deepcopy(table)  # its months and hours win over [time]'s (ScenarioModel.listening)
         if "reference" in own:  # the band's own reference antenna, in place of [reference]
             one["reference"] = own.pop("reference")
+            site, file_ref = one.get("site"), data.get("reference")
+            named = isinstance(site, dict) and isinstance(file_ref, dict) and "name" in file_ref
+            if named and site.get("transmitting") == file_ref["name"]:
+                del site["transmitting"]  # the file's reference is not on this band: the band's takes its place
         one["band"] = own
         for what in ("target", "candidate"):  # a band's own file: its targets and candidates need no band names
-            if what in data:
+            if what in data or what == "target":
                 one[what] = _on_band(_listed(data, what), name)
-            if what == "target" and not one.get(what):
-                raise ScenarioError(
-                    label, [(f'band "{name}"', "no target is listened on this band; name it in a target's bands")]
-                )
+                if not one[what]:
+                    said = "no target is listened on" if what == "target" else "no candidate is built for"
+                    raise ScenarioError(label, [(f'band "{name}"', f"{said} this band; name it in a {what}'s bands")])
+        one = BandData(one)
+        kept = [i + 1 for i, c in enumerate(_listed(data, "candidate")) if _on_band([c], name)]
+        one.candidate_numbers = tuple(kept) if kept != list(range(1, len(kept) + 1)) else None
         _check_parts_on_band(one, name, label)
         out.append((name, one))
     return out
+
+
+class BandData(dict):
+    """One band's scenario (a dict) with ``candidate_numbers``: each of its candidates' number in the file, where
+    some candidates are not built for the band (their ``bands``), so that its problems name them as the file does
+    (:func:`renumbered`); None where they are numbered alike."""
+
+    candidate_numbers: tuple[int, ...] | None = None
+
+
+def renumbered(problems: list[tuple[str, str]], numbers: tuple[int, ...]) -> list[tuple[str, str]]:
+    """Problems of one band's scenario with its candidates numbered as in the file (``numbers``: BandData's)."""
+    import re
+
+    def fix(text: str) -> str:
+        def number(m):
+            k = int(m.group(1))
+            return f"candidate {numbers[k - 1]}" if 0 < k <= len(numbers) else m.group(0)
+
+        return re.sub(r"\bcandidate (\d+)\b", number, text)
+
+    return [(fix(where), fix(why)) for where, why in problems]
 
 
 def _listed(data: dict, what: str) -> list:
@@ -89,14 +125,19 @@ def _on_band(items: list, name: str) -> list:
 def _check_parts_on_band(one: dict, name: str, label: str) -> None:
     """A phasing unit (a candidate naming two antennas in ``antennas``) on a band needs both on that band."""
     here = {c.get("name") for c in _listed(one, "candidate") if isinstance(c, dict)} | {"reference"}
+    switched = [f"{c.get('name')} " for c in _listed(one, "candidate") if isinstance(c, dict) and "directions" in c]
     ref = one.get("reference")
     if isinstance(ref, dict):
         here.add(ref.get("name"))
+
+    def on_band(part: str) -> bool:  # an antenna of the band, or a state of a switched one ("<name> NE (45 deg)")
+        return part in here or any(part.startswith(prefix) for prefix in switched)
+
     problems = []
     for c in _listed(one, "candidate"):
         parts = c.get("antennas") if isinstance(c, dict) else None
         if isinstance(parts, list):
-            missing = [p for p in parts if isinstance(p, str) and p not in here]
+            missing = [p for p in parts if isinstance(p, str) and not on_band(p)]
             if missing:
                 problems.append(
                     (

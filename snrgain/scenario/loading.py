@@ -21,7 +21,7 @@ from snrgain.units import length_unit_of, lengths_said_in
 
 from .antennas import Built, build_antennas
 from .band import Band
-from .bands import one_band
+from .bands import one_band, renumbered
 from .compute import Uncertainty
 from .feedline import resolve_feed_lines
 from .files import read_source
@@ -65,6 +65,17 @@ def load(
     else:
         data, label, base_dir = read_source(source)
     data = one_band(data, band, label)
+    numbers = getattr(data, "candidate_numbers", None)  # a band's candidates' numbers in the file (their bands)
+    try:
+        return _loaded(data, label, base_dir, p372_dir, nside, reference)
+    except ScenarioError as exc:
+        if not numbers:
+            raise
+        raise ScenarioError(exc.source, renumbered(exc.problems, numbers)) from None
+
+
+def _loaded(data: dict, label: str, base_dir, p372_dir, nside, reference) -> Scenario:
+    """:func:`load` of one band's scenario (a dict)."""
     length_unit = length_unit_of(data)
     with lengths_said_in(length_unit):  # its problems quote lengths in its unit (units.length_said)
         data, problems = plan_from_latlon(data)

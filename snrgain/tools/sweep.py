@@ -441,7 +441,7 @@ class _Shared:
         k = self.names.index(name)
         spec = dict(data["candidate"][self.tables.index(name)])  # by place: a design may rename it
         # the candidate's own chain is the scenario's; its place is layout's; its feed line the one load resolved
-        for key in ("chain", "place", FEED_LINE_KEY):
+        for key in ("chain", "place", FEED_LINE_KEY, "bands"):  # its bands: the band's scenario holds it already
             spec.pop(key, None)
         base = Path(self.study.base_dir) if self.study.base_dir else None
         ant = antenna_from_table(
@@ -509,11 +509,30 @@ def run_designs(study: Study, chunk: list[tuple[int, tuple]]) -> list[dict]:
             _, _, _, per = pipeline.nominal(sc)
             targets, chosen = [t.name for t in sc.targets], per[1:]
         names = {c.name for c in chosen if c.name in varied or c.group in varied}  # a switched one: its states
+        if not names and not _varies_on_band(sc, data, varied):
+            continue  # what the design varies is not on this band (a candidate's bands, a band's own reference)
         shown = [c for c in chosen if c.name in names] or chosen
         placed = placement_warnings(sc, {c.name for c in shown})
         for a in shown:
             rows += _rows(number, study.varies, values, a, targets, study.spread, placed.get(a.name, ""))
     return rows
+
+
+def _varies_on_band(sc, data: dict, varied: set[str]) -> bool:
+    """Whether a design's varied tables stand in this band's scenario ``sc``: a candidate varied that is not built
+    for the band (its ``bands``) does not, nor the file's reference on a band with a reference of its own; a section
+    (site, band, time, ...) always does."""
+    from snrgain.scenario.switched import switched_state
+
+    tables = {c.get("name") for c in data.get("candidate", []) if isinstance(c, dict)}
+    ref = data.get("reference") if isinstance(data.get("reference"), dict) else {}
+    here = {a.name for a in sc.candidates} | {s.group for s in map(switched_state, sc.candidates) if s is not None}
+    for table in varied:
+        if table in tables and table not in here:
+            return False
+        if table == "reference" and sc.reference.name != ref.get("name", sc.reference.name):
+            return False
+    return True
 
 
 PLACEMENT_CODES = ("off-lot", "in-keep-out", "wires-cross", "near-tx-vertical", "feed-line-near-tx-vertical")
