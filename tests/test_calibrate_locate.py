@@ -638,26 +638,27 @@ def test_a_distance_list_gives_one_distance_per_source(tmp_path):
             assert res.exit_code == 2, res.output
             assert f"r.toml: distance: {said}" in res.stderr and "Traceback" not in res.output
             assert not out.exists()
-    # One per source: each written at its own distance, and the output says which each got.
-    rf.write_text(_example('at = [10, 20]\ndistance = ["50 m", "150 ft"]', flag=True))
+    # One per source: each written at its own distance, and the output says which each got.  (The fit reads each
+    # source at its distance, as the copy writes it: at 50 m and 46 m these readings leave source 2's bearing open.)
+    rf.write_text(_example('at = [10, 20]\ndistance = ["300 m", "150 ft"]', flag=True))
     res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", *copy])
     assert res.exit_code == 0, res.output
     written = [s for s in tomllib.loads(out.read_text())["noise"]["local"] if s["name"].startswith("located")]
     assert [s["name"] for s in written] == ["located source 1", "located source 2"]
-    for k, (src, dist) in enumerate(zip(written, (50.0, 45.72))):
+    for k, (src, dist) in enumerate(zip(written, (300.0, 45.72))):
         e, n = (float(v.split()[0]) for v in src["position"])
         assert np.hypot(e - 10, n - 20) == pytest.approx(dist, abs=0.1)
         (line,) = [ln for ln in res.stdout.splitlines() if ln.strip().startswith(f"source {k + 1} as")]
         assert f"the file's distance {k + 1}" in line and f"'located source {k + 1}'" in line
     assert "45.72 m from the readings (the file's distance 2" in res.stdout
     out.unlink()  # a file that writes its distances in feet is answered in feet
-    rf.write_text(_example('at = [10, 20]\ndistance = ["164 ft", "150 ft"]', flag=True))
+    rf.write_text(_example('at = [10, 20]\ndistance = ["984 ft", "150 ft"]', flag=True))
     res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", *copy])
     assert "150 ft (45.7 m) from the readings (the file's distance 2" in res.stdout
     assert "150 ft (45.7 m) from the readings (the readings file's distance 2)" in out.read_text()
     out.unlink()
     res = CliRunner().invoke(cli, ["locate", str(rf), "--sources", "2", *copy, "--format", "json"])
-    assert [p["distance_m"] for p in json.loads(res.stdout)["written_sources"]] == pytest.approx([164 * 0.3048, 45.72])
+    assert [p["distance_m"] for p in json.loads(res.stdout)["written_sources"]] == pytest.approx([984 * 0.3048, 45.72])
 
 
 def test_the_written_sources_need_one_distance_each():

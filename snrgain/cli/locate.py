@@ -27,7 +27,11 @@ from snrgain.cli.options import (
 @click.argument("readings", type=click.Path(dir_okay=False, path_type=str), required=False)
 @click.option("--example", is_flag=True, help="Print an example readings file and exit.")
 @click.option("--sources", type=click.IntRange(1, 3), default=1, show_default=True, help="Number of sources to fit.")
-@click.option("--fit-elevation", is_flag=True, help="Fit each source's elevation too (default: held at --elevation).")
+@click.option(
+    "--fit-elevation",
+    is_flag=True,
+    help="Fit each source's elevation too (default: held at --elevation); not for sources placed at a distance.",
+)
 @click.option(
     "--elevation",
     type=FiniteRange(0, 85),
@@ -66,7 +70,9 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     uncertainty (default 2 dB) is named.  A diffuse background the sources outweigh in every reading is said
     to be not determined; one far quieter than any site is said too.  With at = [east, north] (where the
     readings were taken) and distance in the file (one per source, in the order the fit numbers them), each source
-    is written to the scenario at its place, and the output says which distance each got.  A fit
+    is fitted and written to the scenario as a placed one, heard as rank hears it (a short vertical dipole near the
+    ground; its elevation held), and the output says which distance each got; without, as a point at its bearing.
+    The copy is read back as rank reads it, and a reading it gives more than 1 dB off the fit is said.  A fit
     that finds no direction is reported with its cause and exits 1, writing no file (no plot, no copy).  See
     --example for the file.
     """
@@ -88,6 +94,8 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     data = loc.load_readings(Path(readings))
     loc.check_distances(data, sources, readings)
+    if fit_elevation and data.near is not None:
+        raise click.BadParameter(f"{readings}: {loc.NEAR_ELEVATION_HELD}", param_hint="--fit-elevation")
     try:
         with progress(None, f"locate: fitting {sources} source(s) to {len(data.readings)} reading(s)"):
             res = loc.locate(
@@ -97,6 +105,7 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
                 n_sources=sources,
                 fit_elevation=fit_elevation,
                 elevation_deg=elevation,
+                near=data.near,
             )
     except loc.LocateError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
@@ -109,9 +118,11 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
         res = loc.sided(res, read_scenario_text(scenario), at_m=data.at_m, name=name)
     out = loc.as_dict(res, freq_hz=data.freq_hz, bandwidth_hz=data.bandwidth_hz)
     if res.ok:  # a failed fit writes nothing; a good one writes every output asked for, or none
-        _write_outputs(
+        copy = _write_outputs(
             res, data, plot=plot, scenario=scenario, write_to=write_to, name=name, overwrite=overwrite, side=side
         )
+        if copy is not None:
+            out.update(copy)
         if plot is not None:
             out["plot"] = plot
         if scenario is not None:
@@ -132,16 +143,21 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side
     be written, a plot this run created is taken away again."""
     from snrgain.tools import locate as loc
 
-    text = None
+    text = unsaid = None
     if scenario is not None:
+        from snrgain.tools.locatecheck import unsaid as unsaid_in
+
+        base = read_scenario_text(scenario)
+        unsaid = unsaid_in(base, res, data)
         text = loc.with_sources(
-            read_scenario_text(scenario),
+            base,
             res,
             at_m=data.at_m,
             distances_m=data.distances_m,
             name=name,
             side_deg=side,
             length_unit=data.length_unit,
+            unsaid=unsaid,
         )
     created = None
     if plot is not None:
@@ -157,6 +173,35 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side
         if created is not None:
             created.unlink(missing_ok=True)
         raise
+    if text is None:
+        return None
+    for u in unsaid:
+        click.echo(f"warning: the copy cannot tell rank of the located source(s): {u}", err=True)
+    return _checked(text, res, data, scenario=scenario, write_to=write_to, name=name)
+
+
+def _checked(text, res, data, *, scenario, write_to, name) -> dict:
+    """The copy read back as rank reads it (snrgain.tools.locatecheck): each reading's level from it beside the
+    fitted one, a warning on stderr where any lies further apart than CHECK_TOLERANCE_DB; JSON-ready."""
+    from snrgain.errors import ScenarioError
+    from snrgain.tools import locate as loc
+    from snrgain.tools import locatecheck as chk
+
+    names = loc.source_names(res, name)
+    try:
+        check = chk.copy_levels(text, res, data, names, base_dir=Path(scenario).resolve().parent, label=write_to)
+    except (ScenarioError, ValueError) as exc:  # a copy rank refuses: said, the copy kept for the user to mend
+        click.echo(f"warning: rank cannot read the copy: {exc}", err=True)
+        return {"copy_check": None, "copy_check_error": str(exc)}
+    warning = chk.said(check, res.placed)
+    if warning is not None:
+        click.echo(f"warning: {warning}", err=True)
+    return {
+        "copy_check": [
+            {"label": lv.label, "fitted_dbm": lv.fitted_dbm, "copy_dbm": lv.copy_dbm} for lv in check.levels
+        ],
+        "copy_check_worst_db": check.worst_db,
+    }
 
 
 def _lines(res, out, side=None, length_unit="m") -> list[str]:
@@ -215,4 +260,12 @@ def _lines(res, out, side=None, length_unit="m") -> list[str]:
                     f"[{e:.1f} m, {n:.1f} m]"
                 )
             lines.append(f"    source {i + 1} as {p['name']!r}: bearing {p['bearing_deg']:.0f} deg, {how}")
+        if out.get("copy_check"):
+            from snrgain.tools.locatecheck import CHECK_TOLERANCE_DB
+
+            worst = out["copy_check_worst_db"]
+            lines.append(
+                f"    read back as rank reads it, the copy gives each reading its fitted level within {worst:.1f} dB"
+                + ("" if worst <= CHECK_TOLERANCE_DB else " (see the warnings)")
+            )
     return lines

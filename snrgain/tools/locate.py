@@ -31,8 +31,14 @@ fit misses by more than that is named as an outlier, and the fit is not
 called converged without saying so.  Where the file says where the readings
 were taken (``at = [east, north]`` on the site plan) and how far the source
 is (``distance``, e.g. from a walk with a portable receiver), the source is
-written to a scenario as a placed one (``position``, with its Fa
-``measured_at`` the reading point); otherwise by its bearing.  A distance
+fitted and written to a scenario as a placed one (``position``, with its Fa
+``measured_at`` the reading point): a short vertical dipole near the ground
+whose field each antenna takes where it stands, as ``rank`` reads a placed
+source (:mod:`snrgain.tools.locatenear`; its elevation held, not fitted);
+otherwise as a point at its bearing and elevation (spread 0), heard through
+the antennas' patterns.  Either way the copy describes the source as the
+fit modelled it, and is read back as ``rank`` reads it to check that it gives
+the fitted levels (:mod:`snrgain.tools.locatecheck`).  A distance
 places one source: with several (``--sources``), ``distance`` is a list of
 one per source, in the order the fit numbers them (a run without the copy
 shows it; the fit's starts are fixed, so the order is the same each run),
@@ -70,6 +76,14 @@ IMPLAUSIBLE_BELOW_QUIET_RURAL_DB = 10.0
 category, a remote site, whose lower decile is taken as rural's, 4.6 dB under it) is quieter than any site: the
 levels or the antennas' descriptions are likely wrong (galactic noise alone, where it comes through the
 ionosphere, is about as strong as that median at the low bands: P.372 Section 6)."""
+NEAR_ELEVATION_HELD = (
+    "a source at a distance (the readings file's at and distance) is written as a placed one, whose field is worked "
+    "from its place along the ground: its elevation is held (--elevation), not fitted; leave --fit-elevation out, or "
+    "distance out to fit a far source's elevation"
+)
+FAR_FITS_BETTER_DB = 0.5
+"""Where the readings, read as a far source, fit better than as the placed one by more than this rms [dB] (a
+quarter of a reading's default uncertainty), the result says so and how to write it by its bearing."""
 DEFAULT_READING_UNCERTAINTY_DB = 2.0
 """How far a reading may miss the fit before it is called an outlier, unless the file says [dB] (an S-meter read by
 eye: common practice)."""
@@ -136,6 +150,21 @@ class NoiseReadings:
     """How far each source is from there [m], if the file says."""
     length_unit: str = "m"
     """The unit the file writes its distances in ("m" or "ft"): its messages and the output quote them in it."""
+    ground: object = None
+    """The file's ground (snrgain.physics.ground.Ground; None: a perfect ground): the soil under a placed source's
+    field."""
+    ground_name: str = "moist loam"
+    """The file's ground as written (a name, or its constants), for the messages."""
+
+    @property
+    def near(self):
+        """The sources as placed ones (:class:`snrgain.tools.locatenear.Near`) where the file gives the reading point
+        and distances, else None."""
+        from snrgain.tools.locatenear import Near
+
+        if self.at_m is None or self.distances_m is None:
+            return None
+        return Near(tuple(self.at_m), tuple(self.distances_m), self.ground)
 
 
 def load_readings(path: str | Path) -> NoiseReadings:
@@ -225,7 +254,11 @@ def load_readings(path: str | Path) -> NoiseReadings:
     if problems:
         raise ReadingsError(str(path), sorted(set(problems), key=problems.index))
     distances = None if rf.distance is None else tuple(rf.distance if isinstance(rf.distance, list) else [rf.distance])
-    return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances, unit)
+    from snrgain.fields import make_ground
+
+    ground = data.get("ground", "moist loam")
+    said = ground if isinstance(ground, str) else "the file's ground constants"
+    return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances, unit, make_ground(rf.ground), said)
 
 
 def check_distances(data: NoiseReadings, n_sources: int, path) -> None:
@@ -295,6 +328,13 @@ class LocateResult:
     a result (``background_fa_db`` is only where the fit left it)."""
     notes: list[str] = field(default_factory=list)
     """What the result's reader should know besides the message (the background's level, say)."""
+    source_dbm: np.ndarray | None = None
+    """Each fitted source's own share of each reading [dBm] (sources, readings): what the copy is checked against
+    (the fitted background is not written into it)."""
+    background_dbm: np.ndarray | None = None
+    """The fitted diffuse background's share of each reading [dBm]."""
+    placed: bool = False
+    """The sources were fitted as placed ones at the readings file's distances (``locate(near=...)``)."""
 
 
 def _symmetric_front_back(antenna, freq_hz) -> bool:
@@ -316,10 +356,29 @@ def locate(
     chain_gain_db: float = 0.0,
     nside: int = 16,
     seed: int = 0,
+    near=None,
 ) -> LocateResult:
-    """Fit ``n_sources`` compact sources plus a diffuse background to the readings."""
+    """Fit ``n_sources`` compact sources plus a diffuse background to the readings.
+
+    ``near`` (:class:`snrgain.tools.locatenear.Near`: the reading point, a distance per source, the soil): each
+    source is then read as a placed one at its distance, each antenna hearing it at the reading point as ``rank``
+    hears a placed source (:mod:`snrgain.tools.locatenear`); the bearings are searched as plane waves first and
+    the best one (and each source's opposite bearing) taken from there.  Without it, each source is a point at its
+    bearing and elevation heard through the antennas' patterns."""
     if n_sources < 1:
         raise LocateError("n_sources must be >= 1")
+    if near is not None and fit_elevation:
+        raise LocateError(NEAR_ELEVATION_HELD)
+    if near is not None:
+        from snrgain.tools.locatenear import unreadable
+
+        deaf = unreadable([r.antenna for r in readings], [r.label for r in readings])
+        if deaf:
+            raise LocateError(
+                f"{', '.join(deaf)}: a pattern of total gain only, and a source at a distance is heard through the "
+                "vertical and horizontal gains (a placed source's field has a polarisation); give the pattern's "
+                "gain_v_dbi and gain_h_dbi, or leave distance out to fit and write the source by its bearing"
+            )
     n_unknown = 1 + n_sources * (3 if fit_elevation else 2)
     if len(readings) < n_unknown + 1:
         raise LocateError(
@@ -361,12 +420,28 @@ def locate(
             srcs.append((x[j], el, x[j + 1]))
         return b, srcs
 
+    from snrgain.tools.locatenear import NEAR_POLARISATION, near_gains
+
+    antennas = [r.antenna for r in readings]
+    heard = {}  # (source, bearing, elevation) -> each antenna's gain toward it, read once (its level does not enter)
+    placed = [False]  # whether the sources are read as placed ones yet (after the plane waves' search)
+
+    def gains(s, az, el):
+        key = (placed[0], s, float(az), float(el))
+        if key not in heard:
+            if not placed[0]:
+                heard[key] = np.array([a.gain_linear(freq_hz, np.array([az]), np.array([el]))[0] for a in antennas])
+            else:
+                heard[key] = near_gains(antennas, near, s, az, el, freq_hz)
+        return heard[key]
+
+    def source_temps(x):
+        """Each source's temperature in each antenna [K] (sources, readings)."""
+        _, srcs = unpack(x)
+        return np.array([10**log_s * gains(s, az, el) / (4 * np.pi) for s, (az, el, log_s) in enumerate(srcs)])
+
     def model_dbm(x):
-        b, srcs = unpack(x)
-        t = 10 ** (b / 10) * t_bg
-        for az, el, log_s in srcs:
-            g = np.array([r.antenna.gain_linear(freq_hz, np.array([az]), np.array([el]))[0] for r in readings])
-            t = t + 10**log_s * g / (4 * np.pi)
+        t = 10 ** (x[0] / 10) * t_bg + source_temps(x).sum(axis=0)
         return 10 * np.log10(np.maximum(t * ktb_g, 1e-300))
 
     def resid(x):
@@ -392,6 +467,21 @@ def locate(
         r = least_squares(resid, x0, bounds=(lo, hi), loss="soft_l1", f_scale=1.0)
         if best is None or r.cost < best.cost:
             best = r
+    if near is not None:  # the placed source from the plane waves' best bearings, and each source's opposite one
+        far = best  # kept to say so where the readings fit a far source better
+        heard.clear()
+        placed[0] = True
+        tries = [best.x]
+        for s in range(n_sources):
+            flipped = best.x.copy()
+            j = 1 + s * (3 if fit_elevation else 2)
+            flipped[j] = (flipped[j] + np.pi) % (2 * np.pi)
+            tries.append(flipped)
+        best = None
+        for x0 in tries:
+            r = least_squares(resid, x0, bounds=(lo, hi), loss="soft_l1", f_scale=1.0)
+            if best is None or r.cost < best.cost:
+                best = r
     x = best.x
     res = best.fun
     dof = max(len(levels) - len(x), 1)
@@ -472,6 +562,17 @@ def locate(
             "the levels (dBm at the receiver's input in the stated bandwidth: the fit takes no line loss or "
             "attenuator ahead of it) and the antennas' sizes and heights (they set the modelled efficiency)"
         )
+    if near is not None:
+        far_rms = float(np.sqrt(np.mean(far.fun**2)))
+        if far_rms < rms - FAR_FITS_BETTER_DB:
+            far_bearings = ", ".join(f"{np.degrees(az) % 360:.0f}" for az, _, _ in unpack(far.x)[1])
+            notes.append(
+                f"read as a far source (a plane wave of both polarisations, heard through the antennas' patterns) "
+                f"the readings fit better: {far_rms:.2f} dB rms at {far_bearings} deg, against {rms:.2f} dB for a "
+                f"short {NEAR_POLARISATION} dipole at the file's distance, as rank reads a placed source (a small "
+                "loop's nulls, say, are deeper under a vertically polarised field than under both polarisations); "
+                "leave distance out of the readings file to fit and write it by its bearing"
+            )
     return LocateResult(
         ok,
         msg,
@@ -484,6 +585,9 @@ def locate(
         outliers,
         bg_determined,
         notes,
+        10 * np.log10(np.maximum(source_temps(x) * ktb_g, 1e-300)),
+        10 * np.log10(np.maximum(10 ** (b / 10) * t_bg * ktb_g, 1e-300)),
+        near is not None,
     )
 
 
@@ -560,11 +664,21 @@ def side_note(s: FittedSource) -> str:
 
 
 def scenario_blocks(
-    res: LocateResult, *, at_m=None, distances_m=None, name: str = "located source", length_unit: str = "m"
+    res: LocateResult,
+    *,
+    at_m=None,
+    distances_m=None,
+    name: str = "located source",
+    length_unit: str = "m",
+    unsaid=(),
 ) -> str:
-    """The fitted sources as [[noise.local]] tables: placed (position, Fa measured at ``at_m``) where the reading
-    point and a distance per source are known (:func:`placements`), else by bearing.  ``length_unit``: the unit
-    the readings file wrote its distances in, for the comments."""
+    """The fitted sources as [[noise.local]] tables, each as the fit modelled it, so that ``rank`` of the copy
+    gives the reading antennas the fitted levels: placed (position, Fa measured at ``at_m``, a short vertical
+    dipole at :data:`snrgain.tools.locatenear.NEAR_HEIGHT_M`) where the reading point and a distance per source are
+    known (:func:`placements`), else by bearing; either way a point (spread 0) at the elevation fitted or held.
+    ``length_unit``: the unit the readings file wrote its distances in, for the comments; ``unsaid``: what the fit
+    modelled that the copy cannot tell ``rank`` (:func:`snrgain.tools.locatecheck.unsaid`), a comment line each."""
+    from snrgain.tools.locatenear import NEAR_HEIGHT_M, NEAR_POLARISATION
     from snrgain.tools.tomltext import toml_string
     from snrgain.units import length_said
 
@@ -575,18 +689,27 @@ def scenario_blocks(
         head = f"\n[[noise.local]]   # fitted by snrgain locate, bearing +- {s.bearing_sigma_deg:.0f} deg{note}\n"
         if p.position_m is not None:
             e, n = p.position_m
-            blocks.append(
-                head + f"name = {toml_string(p.name)}\n"
+            how = (
+                f"a short {NEAR_POLARISATION} dipole {NEAR_HEIGHT_M:g} m above the soil whose field each antenna "
+                "takes where it stands"
+                if res.placed
+                else "a far source at its bearing (the fit had no distance), placed here: rank's levels from it differ"
+            )
+            body = (
                 f'position = ["{e:.1f} m", "{n:.1f} m"]   # {length_said(p.distance_m, length_unit)} from the '
                 f"readings (the readings file's distance {i + 1}), +- {length_said(p.across_m, length_unit, 0)} across "
-                "its bearing\n"
-                f'fa = {s.fa_db:.1f}\nmeasured_at = ["{at_m[0]:.1f} m", "{at_m[1]:.1f} m"]\n'
+                f'its bearing\nheight = "{NEAR_HEIGHT_M:g} m"\npolarisation = "{NEAR_POLARISATION}"\n'
+                f'elevation = {s.elevation_deg:.1f}\nspread = "0 deg"\nfa = {s.fa_db:.1f}\n'
+                f'measured_at = ["{at_m[0]:.1f} m", "{at_m[1]:.1f} m"]\n'
             )
         else:
-            blocks.append(
-                head + f"name = {toml_string(p.name)}\n"
-                f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\nspread = 5\nfa = {s.fa_db:.1f}\n"
+            how = "a point at its bearing and elevation, heard in both polarisations through each antenna's pattern"
+            body = (
+                f"bearing = {s.bearing_deg:.1f}\nelevation = {s.elevation_deg:.1f}\n"
+                f'spread = "0 deg"\nfa = {s.fa_db:.1f}\n'
             )
+        said = f"# as the fit modelled it: {how}\n" + "".join(f"# rank cannot be told: {u}\n" for u in unsaid)
+        blocks.append(head + said + f"name = {toml_string(p.name)}\n" + body)
     return "".join(blocks)
 
 
@@ -690,8 +813,10 @@ def with_sources(
     name: str = "located source",
     side_deg=None,
     length_unit: str = "m",
+    unsaid=(),
 ) -> str:
-    """Scenario TOML text with the fitted sources written in: a [[noise.local]] of the same name is replaced (its
+    """Scenario TOML text with the fitted sources written in (:func:`scenario_blocks`; ``unsaid``: what the copy
+    cannot tell ``rank``, said in each one's comment): a [[noise.local]] of the same name is replaced (its
     table removed), the others kept; refuses a failed fit.  An ambiguous bearing (180 deg) is written on the side
     of ``side_deg`` where given (:func:`on_side`), else on the side of the source it replaces (:func:`sided`)."""
     import tomllib
@@ -702,10 +827,17 @@ def with_sources(
         raise LocateError("the fit failed, so no sources were written: " + res.message)
     res = on_side(res, side_deg) if side_deg is not None else sided(res, text, at_m=at_m, name=name)
     kept = remove_tables(text, "[[noise.local]]", set(source_names(res, name)))
-    blocks = scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name, length_unit=length_unit)
+    blocks = scenario_blocks(res, at_m=at_m, distances_m=distances_m, name=name, length_unit=length_unit, unsaid=unsaid)
     out = kept.rstrip("\n") + "\n" + blocks
     tomllib.loads(out)  # still one valid file
     return out
+
+
+def _sources_share_dbm(res: LocateResult, n: int) -> list:
+    """The fitted sources' share of each reading [dBm] (None each where the result does not hold it)."""
+    if res.source_dbm is None or not len(res.source_dbm):
+        return [None] * n
+    return list(10 * np.log10(np.sum(10 ** (np.asarray(res.source_dbm) / 10), axis=0)))
 
 
 def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
@@ -721,8 +853,14 @@ def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
         "residual_rms_db": res.residual_rms_db,
         "sources": [vars(s) for s in res.sources],
         "outliers": [{"label": lab, "miss_db": m, "uncertainty_db": u} for lab, m, u in res.outliers],
+        "placed": res.placed,
         "readings": [
-            {"label": lab, "level_dbm": lv, "fitted_dbm": p}
-            for lab, lv, p in zip(res.labels, res.readings_dbm, res.predicted_dbm)
+            {"label": lab, "level_dbm": lv, "fitted_dbm": p, "sources_dbm": src}
+            for lab, lv, p, src in zip(
+                res.labels,
+                res.readings_dbm,
+                res.predicted_dbm,
+                _sources_share_dbm(res, len(res.labels)),
+            )
         ],
     }
