@@ -67,8 +67,9 @@ def _summary(sc) -> None:
 
 
 def _geometry(sc) -> None:
-    """The cheap geometry checks rank makes (lot, keep-outs, crossings, the TX vertical's clearance, plan points
-    that look like a latitude and longitude), without computing any pattern; lengths in the scenario's unit."""
+    """The cheap geometry checks rank makes (lot, keep-outs, crossings, the TX vertical's and structures' clearances,
+    plan points that look like a latitude and longitude), without computing any pattern; lengths in the scenario's
+    unit."""
     from snrgain.decide.lot import site_notices
     from snrgain.outputs.messages import notice_text
     from snrgain.units import length_text
@@ -84,6 +85,6 @@ def _geometry(sc) -> None:
         )
     found = site_notices(sc)
     if not found:
-        click.echo("  geometry: no warnings (lot, keep-outs, crossings, clearance from the TX vertical)")
+        click.echo("  geometry: no warnings (lot, keep-outs, crossings, clearance from the TX vertical and structures)")
     for n in found:
         click.echo(f"  rank would warn: {notice_text(n, unit=unit)}")

@@ -16,7 +16,9 @@ the transmitting vertical (the reference, when it is a vertical, at its
 position or else at the plan's origin when the site has a lot: the user's
 clearance for every antenna; without one, half a wavelength only for the
 antennas whose coupling to the vertical is not computed, the others' cost
-being computed by snrgain.model.scatter), a candidate's feed line whose run
+being computed by snrgain.model.scatter), a receiving antenna within the
+clearance of a ``[site] structures`` entry (:func:`structure_clearance_m`: its
+``clearance``, else its height and at least 10 m: guy anchors), a candidate's feed line whose run
 passes within the clearance the user gives (while transmitting its shield
 sits in the vertical's strongest field), and a
 placed noise source inside a keep-out area (a house is where sources often
@@ -33,7 +35,9 @@ wire where it could fall onto one, or one onto it); call the utilities'
 locating service before driving ground rods; a wire on or near the ground is
 a trip hazard to people and animals: mark it.  Follow local codes and
 licensed practice for anything that connects to mains or lightning
-protection.
+protection.  A tower is guyed, climbed and worked on: keep wires off its guys
+and anchors and out of a climber's way, as the tower's installation
+instructions and local codes set them.
 """
 
 from __future__ import annotations
@@ -51,6 +55,15 @@ OFF_LOT_TOLERANCE_M = 0.1
 DEFAULT_TX_CLEARANCE_WAVELENGTHS = 0.5
 """Default distance to keep receiving antennas from a resonant transmitting vertical: half a wavelength (common
 practice; closer, detune the vertical while receiving)."""
+
+
+STRUCTURE_CLEARANCE_HEIGHTS = 1.0
+"""Default distance to keep every antenna from a structure's foot, in the structure's heights: a guyed tower's anchors
+commonly stand 60-80 % of its height from its foot (common practice), so an antenna a height away stands beyond
+its guys and anchors."""
+LEAST_STRUCTURE_CLEARANCE_M = 10.0
+"""The default clearance from a structure is never less than this [m]: a structure's computed re-radiation
+(snrgain.model.scatter) is checked against NEC-2 from 10 m out, not closer."""
 
 
 LATLON_LIKE_DEG = 0.5
@@ -190,6 +203,22 @@ def clearance_applies(sc, antenna) -> bool:
     from snrgain.model.scatter import modelled
 
     return getattr(sc.site, "tx_clearance_m", None) is not None or not modelled(antenna)
+
+
+def structure_clearance_m(structure) -> float:
+    """The distance to keep every antenna from a ``[site] structures`` entry's foot [m]: its ``clearance`` as given
+    (0: none), else :data:`STRUCTURE_CLEARANCE_HEIGHTS` of its height, at least :data:`LEAST_STRUCTURE_CLEARANCE_M`.
+
+    >>> from types import SimpleNamespace as S
+    >>> structure_clearance_m(S(clearance=None, height=20.0)), structure_clearance_m(S(clearance=None, height=6.0))
+    (20.0, 10.0)
+    >>> structure_clearance_m(S(clearance=4.0, height=20.0))
+    4.0
+    """
+    given = getattr(structure, "clearance", None)
+    if given is not None:
+        return float(given)
+    return max(STRUCTURE_CLEARANCE_HEIGHTS * float(structure.height), LEAST_STRUCTURE_CLEARANCE_M)
 
 
 SAME_PLACE_M = 1.0
@@ -347,18 +376,22 @@ def alternatives(sc) -> list[tuple[str, str]]:
     return [(n.antenna, n.values["other"]) for n in of_every_state(found, stands, {})]
 
 
-UNFIT_CODES = ("off-lot", "in-keep-out", "near-tx-vertical")
+UNFIT_CODES = ("off-lot", "in-keep-out", "near-tx-vertical", "near-structure")
 """The place notices of an antenna that cannot be built where the file places it (a clearance from the transmitting
-vertical only where the user gives one: a hard rule)."""
+vertical or a structure only where the user gives one: a hard rule)."""
 
 
 def unfit(sc) -> dict[str, dict]:
     """The candidates (by name; each state of a switched antenna by its own) that cannot be built where the file
     places them -> {code, values} of the first such notice: off the lot (beyond OFF_LOT_TOLERANCE_M), in a keep-out
-    area, or within a ``tx_clearance`` the user gives of the transmitting vertical.  The station plan leaves them out
-    (snrgain.decide.plan.station_plan's ``unfit``); ``snrgain layout`` looks for a place that fits."""
+    area, or within a ``tx_clearance`` the user gives of the transmitting vertical or a ``clearance`` the user gives
+    of a structure.  The station plan leaves them out (snrgain.decide.plan.station_plan's ``unfit``); ``snrgain
+    layout`` looks for a place that fits."""
     site = sc.site
-    if site.lot_m is None and not getattr(site, "keep_out", ()) and getattr(site, "tx_clearance_m", None) is None:
+    given = getattr(site, "tx_clearance_m", None) is not None or any(
+        getattr(st, "clearance", None) is not None for st in getattr(site, "structures", ())
+    )
+    if site.lot_m is None and not getattr(site, "keep_out", ()) and not given:
         return {}
     lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
     keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
@@ -366,7 +399,7 @@ def unfit(sc) -> dict[str, dict]:
     found = [
         n
         for n in _place_notices(sc, shapes, None, lot, keep)
-        if n.code in UNFIT_CODES and (n.code != "near-tx-vertical" or n.values.get("given"))
+        if n.code in UNFIT_CODES and (n.code not in ("near-tx-vertical", "near-structure") or n.values.get("given"))
     ]
     candidates = {a.name for a in sc.candidates}
     out: dict[str, dict] = {}
@@ -377,8 +410,8 @@ def unfit(sc) -> dict[str, dict]:
 
 
 def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
-    """Off the lot, in a keep-out, wires crossing or laid alike, antennas on one spot, near the TX vertical: of each
-    place once (``shapes``: :func:`places`; ``only``: the places of a sweep's design, or None)."""
+    """Off the lot, in a keep-out, wires crossing or laid alike, antennas on one spot, near the TX vertical or a
+    structure: of each place once (``shapes``: :func:`places`; ``only``: the places of a sweep's design, or None)."""
     from shapely.geometry import Point
 
     out = []
@@ -414,6 +447,29 @@ def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
                     out.append(
                         Notice("near-tx-vertical", ant.name, {"distance_m": d, "clearance_m": clear, "given": given})
                     )
+    out.extend(structure_notices(sc, mine, None if ref is None else ref.name))
+    return out
+
+
+def structure_notices(sc, shapes, tx_name: str | None = None) -> list[Notice]:
+    """``near-structure`` (structure, distance_m, clearance_m, given) for each place of ``shapes`` ((antenna,
+    footprint) pairs: :func:`places`) whose feed point, wire or elements come within a structure's clearance
+    (:func:`structure_clearance_m`; ``given``: the user's ``clearance``, else the default from its height); the
+    transmitting vertical (``tx_name``) aside, as for its own clearance."""
+    from shapely.geometry import Point
+
+    out = []
+    for st in getattr(sc.site, "structures", ()):
+        clear = structure_clearance_m(st)
+        foot = Point(*(float(x) for x in st.position))
+        given = getattr(st, "clearance", None) is not None
+        for ant, shape in shapes:
+            if shape is None or ant.name == tx_name:
+                continue
+            d = float(shape.distance(foot))
+            if d < clear:
+                values = {"structure": st.name, "distance_m": d, "clearance_m": clear, "given": given}
+                out.append(Notice("near-structure", ant.name, values))
     return out
 
 

@@ -29,7 +29,9 @@ class Notice:
     costs more than 1 dB of SNR gain; snrgain.model.feedline), ``feed-line-ground-assumed`` (an antenna whose ground
     where its feed line's shield ends is snrgain's assumption: a phasing unit's; snrgain.model.feedline),
     ``feed-line-near-tx-vertical`` (distance_m, clearance_m: a feed line's run within the tx_clearance the user gives;
-    snrgain.decide.lot), ``antennas-same-place`` (other, distance_m: two antennas, not both wires, within 1 m on the
+    snrgain.decide.lot), ``near-structure`` (structure, distance_m, clearance_m, given: an antenna within a ``[site]
+    structures`` entry's clearance, the user's or the default from its height; snrgain.decide.lot),
+    ``antennas-same-place`` (other, distance_m: two antennas, not both wires, within 1 m on the
     plan; snrgain.decide.lot), ``local-source-dominates`` (source, source_dbm, rest_dbm, over_db, reference: an
     antenna, the reference too, whose loudest local source is 6 dB or more above the rest of its noise;
     snrgain.decide.decisions), ``termination-fragile`` (termination_ohm, safer_ohm, safer: "matched" or "rdf",

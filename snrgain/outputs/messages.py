@@ -100,6 +100,30 @@ _DETUNE_CAUTION = (
     "transmitter's power and voltage and switched so that the transmitter can never key into it open, per "
     "licensed practice and the equipment's ratings"
 )
+_STRUCTURE_CAUTION = (
+    "; a tower is climbed and worked on: never fasten a wire or its support to a guy wire, an anchor or the "
+    "structure, keep wires where a climber, a dropped tool or an antenna being raised cannot catch them, and leave "
+    "the guys, anchors and their radius as the structure's installation instructions and local codes set them"
+)
+
+
+def _near_structure_text(n: Notice, unit: str) -> str:
+    """A near-structure notice (snrgain.decide.lot.structure_notices) in words, lengths in ``unit``."""
+    from snrgain.decide.lot import LEAST_STRUCTURE_CLEARANCE_M
+
+    v = n.values
+    least = length_text(LEAST_STRUCTURE_CLEARANCE_M, unit, 0)
+    how = (
+        "your clearance for it"
+        if v.get("given", True)
+        else f"its height, at least {least}: a guyed tower's anchors commonly stand 60-80 % of its height from its foot"
+    )
+    return (
+        f"{n.antenna}: comes within {length_text(v['distance_m'], unit, 1)} of the structure {v['structure']!r} "
+        f"(keep {length_text(v['clearance_m'], unit, 0)}, {how}): closer, a wire or element runs among its guy wires "
+        f"and anchors, and the structure's computed re-radiation is checked against NEC-2 only from {least} out; move "
+        "the antenna clear of it" + _STRUCTURE_CAUTION
+    )
 
 
 def _either(words) -> str:
@@ -299,6 +323,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "it receives and distorts the pattern; detuning it while receiving (opening its feed, or a detuning "
             "network) is the usual cure" + (_DETUNE_CAUTION if not v.get("given", True) else "")
         )
+    if n.code == "near-structure":
+        return _near_structure_text(n, unit)
     if n.code == "tx-vertical-cost":
         st = v["state"]
         other = "detuned" if st == "resonant" else "resonant"
@@ -625,6 +651,11 @@ def _unfit_phrase(code: str, v: dict, unit: str) -> str:
         return f"runs off the lot, up to {length_text(v['outside_m'], unit, 0)} beyond its edge"
     if code == "in-keep-out":
         return f"enters the keep-out area {v['area']!r}"
+    if code == "near-structure":
+        return (
+            f"comes within {length_text(v['distance_m'], unit, 0)} of the structure {v['structure']!r} (keep "
+            f"{length_text(v['clearance_m'], unit, 0)}, your clearance for it)"
+        )
     return (
         f"comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
         f"{length_text(v['clearance_m'], unit, 0)}, your tx_clearance)"

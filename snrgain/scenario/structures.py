@@ -23,6 +23,9 @@ class Structure(StrictModel):
     """What connects its foot to the ground [ohm]: 0 grounded (a tower bonded to its ground rods), or a resistance."""
     ground_loss: quantity("resistance", ge=0.0, le=5000.0) = 10.0
     """The loss of its ground connection [ohm]."""
+    clearance: quantity("length", ge=0.0, le=2000.0) | None = None
+    """How far every antenna's feed point, wire and element stays from its foot [m] (None: its height, at least
+    10 m: snrgain.decide.lot.structure_clearance_m; 0: no rule)."""
 
 
 def check_detuning(tx_state: str, reactance_ohm: float | None) -> None:

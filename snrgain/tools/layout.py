@@ -9,7 +9,9 @@ antenna's score carries what the vertical,
 in ``[site] tx_state``, costs its RDF where it stands: snrgain.model.scatter),
 at least 10 m from any other wire and from the antennas that stay where written, the
 transmitting vertical among them (common practice: closer, wires couple; the vertical's
-computed cost is checked against NEC-2 from 10 m), with its bearing
+computed cost is checked against NEC-2 from 10 m), outside each ``[site] structures``
+entry's clearance (snrgain.decide.lot.structure_clearance_m: its ``clearance``, else its
+height; here never under 10 m, as from an antenna that stays), with its bearing
 and length inside the ranges given (fixed where none is given), and its feed
 line's run, if it has one, on the lot and at least 1 m long
 (snrgain.physics.feedline.LEAST_RUN_M), as rank wants it of the written layout.
@@ -51,7 +53,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from snrgain.decide.lot import footprint, polygon, tx_clearance_m
+from snrgain.decide.lot import footprint, polygon, structure_clearance_m, tx_clearance_m
 from snrgain.model.placed import tabled
 from snrgain.processes import elsewhere, spare_core
 from snrgain.records import record
@@ -186,6 +188,19 @@ class Problem:
 
         self.scatterer = tx_vertical(sc) if self.tx is not None else None
         self.structures = structure_scatterers(sc)
+        from shapely.geometry import Point
+
+        self.structure_rules = [
+            (
+                f"{length_text(c, unit, 0)} from the structure {st.name!r}",
+                Point(*(float(x) for x in st.position)),
+                c,
+            )
+            for st in getattr(sc.site, "structures", ())
+            for c in [max(structure_clearance_m(st), WIRE_SEPARATION_M)]
+        ]
+        """(rule, foot, clearance [m]) of each structure: its clearance (snrgain.decide.lot.structure_clearance_m), at
+        least WIRE_SEPARATION_M as from the antennas that stay where written."""
         self.cost_computed = [modelled(a.at((0.0, 0.0))) for a in self.base]
         fixed = [(a.name, footprint(a)) for a in sc.candidates if a.name not in moved and a.long_wire]
         self.fixed_names = [n for n, w in fixed if w is not None]
@@ -435,8 +450,9 @@ class Problem:
 
     def violations(self, d: Design, others=()) -> dict[str, float]:
         """How far a design breaks each rule [m], by the rule and what it names: outside the lot, inside a keep-out
-        area, short of the TX clearance, closer than WIRE_SEPARATION_M to another wire (10 m a crossing) or to an
-        antenna that stays where written (an array's elements, a vertical, a loop); only the rules it breaks."""
+        area, short of the TX clearance or a structure's, closer than WIRE_SEPARATION_M to another wire (10 m a
+        crossing) or to an antenna that stays where written (an array's elements, a vertical, a loop); only the rules
+        it breaks."""
         shape = self.footprint(d)
         out = {}
         v = (
@@ -454,6 +470,8 @@ class Problem:
             out[f"{length_text(self.clearance, self.sc.site.length_unit, 0)} from the transmitting vertical"] = max(
                 0.0, self.clearance - shape.distance(self.tx)
             )
+        for rule, foot, clear in self.structure_rules:
+            out[rule] = max(0.0, clear - shape.distance(foot))
         wires = list(zip(self.fixed_names, self.fixed_wires)) + [(o.name, self.footprint(o)) for o in others]
         for name, w in wires:
             if shape.length > 0 and w.length > 0:
@@ -539,6 +557,8 @@ class Problem:
                     np.where(applies, short, 0.0),
                 )
             )
+        for rule, foot, clear in self.structure_rules:
+            columns.append((rule, np.maximum(0.0, clear - shapely.distance(shapes, foot))))
         # the fixed wires, then the other placed wires, as violations() takes them
         standing = [*zip(self.fixed_names, self.fixed_wires), *((o.name, self.footprint(o)) for o in others)]
         for name, w in standing:
@@ -629,10 +649,17 @@ class Problem:
             blocked = {rule: int(np.count_nonzero(b)) for rule, b in broken.items() if b.any()}
             ranked = sorted(blocked.items(), key=lambda kv: -kv[1])
             rules = "; ".join(f"{rule} ({100 * n / len(designs):.0f} %)" for rule, n in ranked[:4])
+            structure = {r for r, _, _ in self.structure_rules} & {rule for rule, _ in ranked[:4]}
             raise ValueError(
                 f"candidate {self.names[i]!r}: none of the {len(designs)} places tried on the lot keeps every rule "
                 f"with these bearing and length ranges; the share of places each rule rules out: {rules}. Loosen the "
                 "rule that binds most (move or shorten that wire, narrow the ranges, or widen the lot)"
+                + (
+                    "; a structure's is its clearance in [site] structures (default its height), to be made "
+                    "smaller only where its guys and anchors allow"
+                    if structure
+                    else ""
+                )
             )
         return found
 

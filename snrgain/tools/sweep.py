@@ -535,14 +535,21 @@ def _varies_on_band(sc, data: dict, varied: set[str]) -> bool:
     return True
 
 
-PLACEMENT_CODES = ("off-lot", "in-keep-out", "wires-cross", "near-tx-vertical", "feed-line-near-tx-vertical")
+PLACEMENT_CODES = (
+    "off-lot",
+    "in-keep-out",
+    "wires-cross",
+    "near-tx-vertical",
+    "near-structure",
+    "feed-line-near-tx-vertical",
+)
 """The site's warnings a sweep's row carries (snrgain.decide.lot: ``check`` of the design says them in full)."""
 
 
 def placement_warnings(sc, names: set[str]) -> dict[str, str]:
     """For each of the antennas ``names`` of a design, the codes of the site's warnings about where it lies (off the
-    lot, in a keep-out, crossing a wire, near the TX vertical, its feed line near it), joined by "; ": a design
-    that wins the sweep but does not fit the lot is seen in its row."""
+    lot, in a keep-out, crossing a wire, near the TX vertical or a structure, its feed line near the vertical), joined
+    by "; ": a design that wins the sweep but does not fit the lot is seen in its row."""
     site = sc.site
     if site.lot_m is None and not getattr(site, "keep_out", ()) and sc.reference is None:
         return {}
