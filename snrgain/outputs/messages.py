@@ -554,6 +554,12 @@ def best_effort_text(v: dict) -> str:
     )
 
 
+def preamp_gain_said(gain_db: float) -> str:
+    """A preamplifier gain needed, in whole dB as the table and the warning say it; a gain under 0.5 dB (a margin a
+    few hundredths of a dB short) said as 1 dB, the least that reaches the target, never as 0 dB."""
+    return f"{max(float(gain_db), 1.0) if gain_db > 0 else 0.0:.0f}"
+
+
 def preamp_advice_text(gain_db: float, position: str | None) -> str:
     """What preamplifier would meet the margin target, in words (NaN gain: none would)."""
     if gain_db is None or not np.isfinite(gain_db):
@@ -566,7 +572,7 @@ def preamp_advice_text(gain_db: float, position: str | None) -> str:
     else:
         where = "before the receiver" if position == "receiver" else "at the antenna, after the transformer"
         which = f"a preamplifier of {SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
-    return f"About {gain_db:.0f} dB of gain from {which} would reach the target."
+    return f"About {preamp_gain_said(gain_db)} dB of gain from {which} would reach the target."
 
 
 PLAN_WORTH = (
