@@ -463,6 +463,16 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             + f"; {v['filter_db']:.0f} dB of filtering at "
             "both stations' frequencies before the first amplifier brings it down to the noise"
         )
+    if n.code == "near-raised-source":
+        also = "".join(f" (and {o!r})" for o in v.get("others", ()))
+        d = v["distance_m"]
+        where = f"comes within {length_text(d, unit, 0)} on the plan of" if d * per_m(unit) >= 0.5 else "passes under"
+        return (
+            f"{n.antenna}: {where} noise source {v['source']!r}{also}, {length_text(v['height_m'], unit, 0)} up, "
+            "which may be an overhead power line: "
+            "keep every wire, mast and support well clear of power lines, never where a falling wire or support "
+            "could touch one; follow local codes and the utility's clearances"
+        )
     if n.code == "source-in-keep-out":
         return (
             f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r} (expected of a device in a "
