@@ -339,3 +339,25 @@ def test_a_wire_serving_several_bands_is_told_to_shrink_only_where_every_band_ag
     served = {sv.antenna for services in bands.plan.by_target.values() for sv in services}
     assert "BOG Japan" in served
     assert not [n for _, r in bands.bands for n in r.notices if n.code == "wire-too-long" and n.antenna == "BOG Japan"]
+
+
+def test_check_says_each_geometry_warning_once_with_its_bands():
+    # A reviewer saw check print every geometry warning once per band (three times on three bands); rank says a
+    # warning of several bands once, marked with them.  Check says it so too, after the bands' summaries.
+    from tests.conftest import MINIMAL
+
+    one = '[band]\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n'
+    two = '[[band]]\nname = "160 m"\nfrequency = "1.83 MHz"\nbandwidth = "500 Hz"\n\n[[band]]\nname = "80 m"\n'
+    text = MINIMAL.replace(one, two + 'frequency = "3.55 MHz"\nbandwidth = "500 Hz"\n').replace(
+        'ground = "moist loam"\n', 'ground = "moist loam"\nlot = [[-50, -50], [50, -50], [50, 50], [-50, 50]]\n'
+    )
+    text += '\n[[candidate]]\nname = "bev"\nfamily = "beverage"\nlength = "200 m"\nheight = "2 m"\nbearing = 0\n'
+    text += "position = [-40, -40]\n"
+    res = CliRunner().invoke(cli, ["check", "-"], input=text)
+    assert res.exit_code == 0, res.output
+    assert res.stdout.count("<standard input>: valid") == 2
+    warned = [ln for ln in res.stdout.splitlines() if "rank would warn" in ln]
+    assert len(warned) == 1 and "[160 m, 80 m] bev: runs off the lot" in warned[0]
+    assert res.stdout.index(warned[0]) > res.stdout.index("band '80 m':")  # said after both bands
+    rank = CliRunner().invoke(cli, ["rank", "-"], input=text)
+    assert "[160 m, 80 m] bev: runs off the lot" in rank.stderr  # as rank says it

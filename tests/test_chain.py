@@ -245,3 +245,58 @@ def test_a_margin_under_the_receiver_floor_is_said_as_below():
     v["worst_margin_db"] = 2.9
     said = notice_text(Notice("receiver-limited", "a", v))
     assert "external noise is only 2.9 dB above the receiver floor" in said
+
+
+def test_a_margin_that_rounds_to_the_target_is_not_short_of_it():
+    """The margin is said to 0.1 dB: one of 9.97 dB against a 10 dB target is printed 10.0, so it meets the target
+    (no gain needed at that hour), as one of 9.94 dB (printed 9.9) does not; a shortfall needing under 1 dB of gain
+    is offered 1 dB, never "0 dB of gain"."""
+    from snrgain.outputs.messages import preamp_advice_text
+    from snrgain.outputs.output import preamp_cell
+
+    assert list(chain.short_of_target(np.array([9.97, 9.94, 10.0, 12.0, -3.0]), 10.0)) == [
+        False,
+        True,
+        False,
+        False,
+        True,
+    ]
+    ch = chain.cascade(freq_hz=1.83e6, receiver_noise_figure_db=12.0)
+    t_ten = 290.0 * ch.noise_factor * 10.0  # T_A whose margin is 10 dB exactly
+    t_a = np.array([[t_ten * 10 ** (-0.003), t_ten * 10 ** (-0.006)]])  # margins 9.97 and 9.94 dB
+    b = chain.noise_budget(ch, t_a, bandwidth_hz=500.0, margin_target_db=10.0)
+    np.testing.assert_allclose(b.margin_db, [[9.97, 9.94]], atol=1e-9)
+    assert b.preamp_gain_needed_db[0, 0] == 0.0 and 0.0 < b.preamp_gain_needed_db[0, 1] < 0.5
+    assert preamp_cell(True, b.preamp_gain_needed_db) == "1"
+    assert preamp_advice_text(float(np.max(b.preamp_gain_needed_db)), "receiver").startswith("About 1 dB of gain")
+
+
+def test_a_scenario_whose_worst_margin_prints_as_the_target_is_not_receiver_limited(minimal_text):
+    # A reviewer saw "external noise is only 10.0 dB above the receiver floor at worst (target 10 dB) ... About 0 dB
+    # of gain" and "10.0 !" with a preamp of "0" in the table.  The receiver's noise figure is set here so that the
+    # candidate's worst margin is 9.97 dB (the margin moves dB for dB with the noise figure of a chain that is the
+    # receiver alone), against a target of 40 dB.
+    import io
+
+    from rich.console import Console
+
+    from snrgain.outputs.output import ranking_table
+
+    first = snrgain.evaluate(minimal_text + '\n[receiver]\nnoise_figure = "10 dB"\n')
+    worst = float(np.min(first.candidates[0].margin_db))
+    nf = 10.0 + worst - 39.97
+    r = snrgain.evaluate(minimal_text + f'\n[receiver]\nnoise_figure = "{nf:.6f} dB"\nmargin_target = 40\n')
+    iso = r.candidates[0]
+    worst = float(np.min(iso.margin_db))
+    assert worst == pytest.approx(39.97, abs=1e-4) and f"{worst:.1f}" == "40.0"
+    assert not iso.receiver_limited and np.all(iso.preamp_gain_needed_db == 0.0)
+    assert not [n for n in r.notices if n.code == "receiver-limited" and n.antenna == "iso"]
+    console = Console(width=200, record=True, file=io.StringIO())
+    console.print(ranking_table(r))
+    (row,) = [ln for ln in console.export_text().splitlines() if " iso " in ln and "│" in ln]
+    assert "40.0 " in row and "!" not in row and row.rstrip("│ ").endswith("-")
+    from snrgain.outputs.plots import ranking_chart
+
+    fig = ranking_chart(r)
+    said = [t.get_text() for t in fig.axes[2].texts if t.get_text().startswith(" ")]
+    assert said == [" 40.0"]  # the figure's margin panel marks it as the table does

@@ -163,7 +163,7 @@ def test_names_that_begin_like_a_formula_are_written_as_text_in_every_csv(runner
     res = runner.invoke(cli, ["sweep", str(src), "--vary", "=1+2: height = 5 m, 6 m", "-o", str(out)])
     assert res.exit_code == 0, res.output
     rows = list(csv.DictReader(out.read_text(encoding="utf-8").splitlines()))
-    assert "'=1+2: height" in rows[0] and {r["antenna"] for r in rows} == {"'=1+2"}
+    assert "'=1+2: height [m]" in rows[0] and {r["antenna"] for r in rows} == {"'=1+2"}
     assert {r["target"] for r in rows} == {"'@SUM(A1)"} and float(rows[0]["gain_toward_target_dbi"]) < 0
 
 

@@ -539,3 +539,64 @@ def test_the_greedy_plan_and_a_units_parts_keep_to_one_of_two_in_one_place(monke
         "weight": 0.5,
         "swap_db": None,
     }
+
+
+RAISED = """
+[[noise.local]]
+name = "road line"
+position = [153, 100]
+height = "8 m"
+polarisation = "horizontal"
+orientation = 90
+fa = 50
+
+[[noise.local]]
+name = "pole lamp"
+position = [145, 60]
+height = "6 m"
+fa = 40
+
+[[noise.local]]
+name = "fence charger"
+position = [40, 152]
+height = "1 m"
+fa = 40
+"""
+
+
+def test_an_antenna_near_a_raised_source_is_told_to_keep_clear_of_power_lines():
+    # A source placed 5 m or more up may be an overhead power line: an antenna within 10 m of one on the plan is told
+    # the trade's caution, once however many such sources it passes ("inside" passes two), whatever its family
+    # (the loop, 8 m from the line); a low source (the fence charger, 1 m up, 2 m from "low"), a raised one beyond
+    # 10 m ("far" loop, 11 m), say nothing.
+    from snrgain.decide.lot import site_notices
+    from snrgain.outputs.messages import notice_text
+
+    loops = "".join(
+        f'[[candidate]]\nname = "{name}"\nfamily = "small-loop"\nwidth = "1 m"\nloop_height = "1 m"\n'
+        f'height = "2 m"\nposition = {pos}\n\n'
+        for name, pos in (("loop", "[161, 100]"), ("far", "[153, 111]"), ("low", "[40, 150]"))
+    )
+    text = BASE.format(extra_site="", candidates=RAISED + loops)
+    said = [n for n in site_notices(load(text)) if n.code == "near-raised-source"]
+    assert sorted(n.antenna for n in said) == ["inside", "loop"]
+    # a switched antenna's states stand as one: said once, of the antenna
+    switched = (
+        '[[candidate]]\nname = "four-square"\nfamily = "phased-verticals"\nheight = "6 m"\ndirections = [45, 225]\n'
+        "positions = [[100, 20], [110, 20], [100, 30], [110, 30]]\n\n"
+        '[[noise.local]]\nname = "yard light"\nposition = [105, 37]\nheight = "6 m"\nfa = 40\n'
+    )
+    both = [n for n in site_notices(load(text + switched)) if n.code == "near-raised-source"]
+    assert sorted(n.antenna for n in both) == ["four-square", "inside", "loop"]
+    inside = next(n for n in said if n.antenna == "inside")
+    assert inside.values["source"] == "road line" and inside.values["distance_m"] == pytest.approx(3.0)
+    assert inside.values["others"] == ["pole lamp"] and inside.values["height_m"] == 8.0
+    sentence = notice_text(inside)
+    assert sentence.startswith("inside: comes within 3 m on the plan of noise source 'road line' (and 'pole lamp')")
+    assert "well clear of power lines, never where a falling wire or support could touch one" in sentence
+    assert "the utility's clearances" in sentence
+    res = CliRunner().invoke(cli, ["check", "-"], input=text)
+    assert res.exit_code == 0 and res.stdout.count("may be an overhead power line") == 2
+    ranked = snrgain.evaluate(text)
+    assert sorted(n.antenna for n in ranked.notices if n.code == "near-raised-source") == ["inside", "loop"]
+    assert sum("may be an overhead power line" in w for w in ranked.warnings) == 2

@@ -308,3 +308,21 @@ def test_an_undetermined_fit_says_nothing_of_a_fitted_level():
     assert loose.as_dict()["notes"] == ["a"]
     tight = nr.NoiseFit(0.0, -3.0, 0.5, 1.0, "quiet rural", 7.05e6, [{**rows[0], "offset_db": -3.0}], ["a"], ["b"])
     assert tight.determined and tight.shown_notes == ["a", "b"] and "note: b" in nr.fit_lines(tight)
+
+
+def test_write_of_an_undetermined_level_prints_the_readings_writes_nothing_and_exits_1(tmp_path):
+    # It exited 2 (bad input) with only the reason, the readings' comparison unsaid, though no input was wrong: as
+    # verify --write, it now says the readings and the fit, writes nothing, and fails (1) with the reason on stderr.
+    plan = [(f"2026-12-02T0{h}:10:00Z", "TX vertical", "rise") for h in (0, 2, 4, 6)]
+    (tmp_path / "r.toml").write_text(nr.synthesise(WREN, offset_db=-20.0, plan=plan, noise_db=1.5, seed=2))
+    assert not nr.fit(nr.load_readings(tmp_path / "r.toml"), WREN).determined
+    dest = tmp_path / "w.toml"
+    args = ["noise-readings", WREN, str(tmp_path / "r.toml"), "--write", str(dest)]
+    out = CliRunner().invoke(cli, args)
+    assert out.exit_code == 1 and not dest.exists()
+    assert "not determined by these readings" in out.stdout and "TX vertical" in out.stdout
+    assert "--write: the readings do not fix the man-made level (" in out.stderr and "no copy written" in out.stderr
+    out = CliRunner().invoke(cli, [*args, "--format", "json"])
+    d = json.loads(out.stdout)
+    assert out.exit_code == 1 and not dest.exists() and d["determined"] is False and d["written"] is None
+    assert d["not_written_because"].startswith("the readings do not fix the man-made level")

@@ -404,17 +404,43 @@ def test_rows_say_where_a_design_does_not_fit_the_site():
     chunk = list(enumerate(sw.designs(study.varies)))
     rows = sw.run_designs(study, chunk)
     said = {
-        (r["Beverage toward Europe: length"], r["Beverage toward Europe: bearing"]): r["placement_warnings"]
+        (r["Beverage toward Europe: length [m]"], r["Beverage toward Europe: bearing"]): r["placement_warnings"]
         for r in rows
     }
     assert said == {
-        ("180 m", 45): "",
-        ("180 m", 0): "wires-cross",
-        ("300 m", 45): "off-lot",
-        ("300 m", 0): "off-lot; wires-cross",
+        (180.0, 45): "",
+        (180.0, 0): "wires-cross",
+        (300.0, 45): "off-lot",
+        (300.0, 0): "off-lot; wires-cross",
     }
     full = _study("site: ground = moist loam", "Beverage toward Europe: length = 300 m")
     assert not full.fast
     rows = sw.run_designs(full, list(enumerate(sw.designs(full.varies))))
     by = {r["antenna"]: r["placement_warnings"] for r in rows}
     assert by == {"Beverage toward Europe": "off-lot"}
+
+
+def test_a_listed_quantity_is_a_number_with_its_unit_in_the_header(tmp_path):
+    # A reviewer's sweep wrote the range-swept length as "...: length [m]" with numbers, the list-swept height as
+    # "...: height" with text cells ("1 m"), which a spreadsheet cannot plot.  Both are numbers now, the unit in the
+    # header; values that are not quantities stay text.
+    v = sw.parse_vary("Beverage toward Europe: height = 1 m, 2 m, 3 m")
+    assert v.column == "Beverage toward Europe: height [m]" and v.column_values == [1.0, 2.0, 3.0]
+    assert v.values == ["1 m", "2 m", "3 m"]  # the scenario still reads them as written
+    mixed = sw.parse_vary("x: height = 2 m, 10 ft")  # units of one kind mixed: the SI unit
+    assert mixed.column == "x: height [m]" and mixed.column_values == pytest.approx([2.0, 3.048])
+    assert sw.parse_vary("x: bearing = 10 deg, 0.5 rad").column_values == pytest.approx([10.0, 28.6478898])
+    texts = ("x: termination = auto, 100 ohm", "x: family = bog, beverage", "site: name = 5 Oaks Farm, 7 Oaks")
+    for text, cells in zip(texts, (["auto", "100 ohm"], None, ["5 Oaks Farm", "7 Oaks"])):
+        t = sw.parse_vary(text)
+        assert "[" not in t.column and t.column_values == (cells or t.values)
+    out = tmp_path / "s.csv"
+    args = ["sweep", str(DEMO), "-o", str(out), "--vary", "Beverage toward Europe: length = 150 m to 200 m by 50 m"]
+    res = CliRunner().invoke(cli, [*args, "--vary", "Beverage toward Europe: height = 1 m, 2 m"])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.open()))
+    assert [float(r["Beverage toward Europe: height [m]"]) for r in rows[::2]] == [1.0, 2.0, 1.0, 2.0]
+    assert {float(r["Beverage toward Europe: length [m]"]) for r in rows} == {150.0, 200.0}
+    # one key varied twice is refused though its two columns are named in two units
+    twice = CliRunner().invoke(cli, [*args, "--overwrite", "--vary", "Beverage toward Europe: length = 600 ft, 700 ft"])
+    assert twice.exit_code == 2 and "the same key is varied twice" in twice.stderr

@@ -338,8 +338,8 @@ def test_a_sweeps_rows_of_every_state_of_a_crossing_wire_say_it():
         rows = sweep.run_designs(study, list(enumerate(sweep.designs(study.varies))))
         said = {(r[study.varies[0].column], r["antenna"]): r["placement_warnings"] for r in rows}
         for state in states:
-            assert said[("100 m", f"{table} {state}")] == "", said  # 100 m: short of the crossing
-            assert said[("200 m", f"{table} {state}")] == "wires-cross", said
+            assert said[(100.0, f"{table} {state}")] == "", said  # 100 m: short of the crossing
+            assert said[(200.0, f"{table} {state}")] == "wires-cross", said
     # both wires varied in one sweep: the crossing is said in the rows of both, every state of each
     varies = [sweep.parse_vary("bev A: length = 200 m"), sweep.parse_vary("bev B: length = 200 m")]
     study = sweep.Study(data, "test", None, varies)

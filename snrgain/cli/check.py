@@ -19,7 +19,8 @@ def check(scenario, p372_dir):
     the geometry warnings rank would give (lot, keep-outs, crossings, the TX
     vertical's clearance); lists every problem (file, field, value, what is
     allowed) and exits with code 2 otherwise.  A scenario of several bands
-    ([[band]]) is checked band by band.  SCENARIO may be - (standard input;
+    ([[band]]) is checked band by band, its geometry warnings then said once
+    each, marked with the bands they hold on, as rank marks them.  SCENARIO may be - (standard input;
     relative paths then start from the current folder).
     """
     from snrgain.cli.options import band_names
@@ -38,15 +39,28 @@ def check(scenario, p372_dir):
                 found[name] = exc.problems
         if found:
             raise ScenarioError(str(scenario), band_problems(found, len(names)))
+        from snrgain.model.bands import band_marked
+
+        per_band = []
         for name, sc in loaded:
             click.echo(f"band {name!r}:")
-            _summary(sc)
+            _summary(sc, geometry=False)
+            per_band.append((name, _geometry_texts(sc)))
+        said = band_marked(per_band)  # a warning of several bands said once, with them, as rank says it
+        head = f"geometry ({GEOMETRY}), each warning once with its bands:"
+        click.echo(head if said else f"geometry: no warnings on any band ({GEOMETRY})")
+        for w in said:
+            click.echo(f"  rank would warn: {w}")
         return
     _summary(load(scenario, p372_dir=p372_dir))
 
 
-def _summary(sc) -> None:
-    """What a valid scenario holds, and the geometry checks."""
+GEOMETRY = "lot, keep-outs, crossings, clearance from the TX vertical and structures"
+"""What the geometry checks look at, in words."""
+
+
+def _summary(sc, geometry: bool = True) -> None:
+    """What a valid scenario holds, and the geometry checks (``geometry``: their warnings too)."""
     click.echo(f"{sc.source}: valid")
     click.echo(f"  site {sc.site.name!r} at {sc.site.latitude_deg:.3f}, {sc.site.longitude_deg:.3f}")
     click.echo(
@@ -63,15 +77,27 @@ def _summary(sc) -> None:
     click.echo(f"  reference: {sc.reference.name} ({sc.reference.family})")
     for a in sc.candidates:
         click.echo(f"  candidate: {a.name} ({a.family})")
-    _geometry(sc)
+    _lot(sc)
+    if geometry:
+        said = _geometry_texts(sc)
+        if not said:
+            click.echo(f"  geometry: no warnings ({GEOMETRY})")
+        for w in said:
+            click.echo(f"  rank would warn: {w}")
 
 
-def _geometry(sc) -> None:
+def _geometry_texts(sc) -> list[str]:
     """The cheap geometry checks rank makes (lot, keep-outs, crossings, the TX vertical's and structures' clearances,
-    plan points that look like a latitude and longitude), without computing any pattern; lengths in the scenario's
-    unit."""
+    plan points that look like a latitude and longitude), without computing any pattern, as sentences; lengths in the
+    scenario's unit."""
     from snrgain.decide.lot import site_notices
     from snrgain.outputs.messages import notice_text
+
+    return [notice_text(n, unit=sc.site.length_unit) for n in site_notices(sc)]
+
+
+def _lot(sc) -> None:
+    """The lot's size and keep-out areas, where the file gives a lot."""
     from snrgain.units import length_text
 
     site = sc.site
@@ -83,8 +109,3 @@ def _geometry(sc) -> None:
             f"  lot: {len(lot)} corners, {length_text(w, unit, 0)} east-west by {length_text(h, unit, 0)} north-south"
             f"; {len(site.keep_out)} keep-out area(s); lengths shown in {unit}"
         )
-    found = site_notices(sc)
-    if not found:
-        click.echo("  geometry: no warnings (lot, keep-outs, crossings, clearance from the TX vertical and structures)")
-    for n in found:
-        click.echo(f"  rank would warn: {notice_text(n, unit=unit)}")

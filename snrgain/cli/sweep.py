@@ -78,8 +78,8 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
     check_output(output, overwrite=overwrite)
     sw.output_format(output)
     parsed = [sw.parse_vary(v) for v in varies]
-    columns = [v.column for v in parsed]
-    if len(set(columns)) != len(columns):
+    keys = [(v.table, v.key) for v in parsed]  # one key in two units has two columns' names
+    if len(set(keys)) != len(keys):
         raise ValueError("--vary: the same key is varied twice")
     data, label, base_dir = read_source(Path(scenario))
     from snrgain.cli.options import band_names

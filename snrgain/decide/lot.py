@@ -30,6 +30,9 @@ with decimals, or every corner of an outline so: a real plan's corners do not
 all fit in a metre).  A lot or keep-out outline that crosses
 itself is an input error.
 
+An antenna within 10 m on the plan of a placed noise source 5 m or more up (which may be an overhead power
+line) is told the caution of the trade below (``near-raised-source``).
+
 Cautions of the trade: keep wires well clear of power lines (never run a
 wire where it could fall onto one, or one onto it); call the utilities'
 locating service before driving ground rods; a wire on or near the ground is
@@ -287,6 +290,9 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
         out.extend(feed_line_notices(sc, runs))
     if only is not None:
         return out
+    ref = sc.reference
+    if ref is not None and ref.params.position is not None:  # the reference is built too, or stands already
+        out.extend(raised_source_notices(sc, [(ref, footprint(ref))]))
     for src in sc.noise.local:
         if src.position_m is not None:
             for name, area in keep:
@@ -428,6 +434,7 @@ def _place_notices(sc, shapes, only, lot, keep) -> list[Notice]:
             if shape.intersects(area):
                 out.append(Notice("in-keep-out", ant.name, {"area": name}))
     out.extend(_pair_notices(sc, shapes, only))
+    out.extend(raised_source_notices(sc, mine))
     from snrgain.model.scatter import tx_antenna
 
     ref = tx_antenna(sc)
@@ -470,6 +477,33 @@ def structure_notices(sc, shapes, tx_name: str | None = None) -> list[Notice]:
             if d < clear:
                 values = {"structure": st.name, "distance_m": d, "clearance_m": clear, "given": given}
                 out.append(Notice("near-structure", ant.name, values))
+    return out
+
+
+RAISED_SOURCE_HEIGHT_M = 5.0
+NEAR_RAISED_SOURCE_M = 10.0
+"""A placed noise source this high or higher [m] may be an overhead power line: an antenna within NEAR_RAISED_SOURCE_M
+of it on the plan [m] is told to keep clear of power lines (``near-raised-source``)."""
+
+
+def raised_source_notices(sc, shapes) -> list[Notice]:
+    """``near-raised-source`` (source, distance_m, height_m, others): each antenna of ``shapes`` ((antenna, footprint)
+    pairs) within NEAR_RAISED_SOURCE_M on the plan of a placed noise source RAISED_SOURCE_HEIGHT_M or more up, once,
+    naming the nearest such source.  snrgain cannot tell a power line from another raised source; a builder near one
+    is told the trade's caution (keep clear of power lines, never where a falling wire or support could touch one)."""
+    from shapely.geometry import Point
+
+    raised = [s for s in sc.noise.local if s.position_m is not None and s.height_m >= RAISED_SOURCE_HEIGHT_M]
+    out = []
+    for ant, shape in shapes:
+        if shape is None or not raised:
+            continue
+        near = sorted((float(shape.distance(Point(*s.position_m))), s) for s in raised)
+        near = [(d, s) for d, s in near if d <= NEAR_RAISED_SOURCE_M]
+        if near:
+            (d, s), others = near[0], [o.name for _, o in near[1:]]
+            values = {"source": s.name, "distance_m": d, "height_m": float(s.height_m), "others": others}
+            out.append(Notice("near-raised-source", ant.name, values))
     return out
 
 

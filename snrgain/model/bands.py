@@ -67,16 +67,8 @@ class BandResults:
     def _marked(self, per_band: list[tuple[str, list[str]]]) -> list[str]:
         from snrgain.outputs.messages import notice_text
 
-        bands_of: dict[str, list[str]] = {}
-        for name, texts in per_band:
-            for w in texts:
-                names = bands_of.setdefault(w, [])
-                if name not in names:
-                    names.append(name)
         unit = self.bands[0][1].site.get("length_unit", "m") if self.notices else "m"
-        return [f"[{', '.join(names)}] {w}" for w, names in bands_of.items()] + [
-            notice_text(n, unit=unit) for n in self.notices
-        ]
+        return band_marked(per_band) + [notice_text(n, unit=unit) for n in self.notices]
 
     def plan_dict(self) -> dict[str, Any]:
         from snrgain.model.results import plan_to_dict
@@ -96,3 +88,16 @@ class BandResults:
                 "warnings": self.warnings,
             }
         )
+
+
+def band_marked(per_band: list[tuple[str, list[str]]]) -> list[str]:
+    """Warnings said band by band ((band name, its warnings) in the file's order), each once, marked with the bands
+    it is said on ("[160 m, 80 m] ..."), where it was first said: rank's warnings across the bands and check's
+    geometry warnings."""
+    bands_of: dict[str, list[str]] = {}
+    for name, texts in per_band:
+        for w in texts:
+            names = bands_of.setdefault(w, [])
+            if name not in names:
+                names.append(name)
+    return [f"[{', '.join(names)}] {w}" for w, names in bands_of.items()]

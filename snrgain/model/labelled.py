@@ -84,7 +84,7 @@ DESCRIPTIONS: dict[str, str] = {
     "front_to_back_db": "front-to-back ratio at the target's mean elevation",
     "gain_toward_target_dbi": "weighted total gain toward the target",
     "mean_gain_dbi": "total gain averaged over the whole sphere, 0 below the horizon",
-    "receiver_limited": "the margin falls below the margin target at some hour",
+    "receiver_limited": "the margin, to 0.1 dB, falls below the margin target at some hour",
     "chain_noise_figure_db": "noise figure of the receiving chain",
     "chain_gain_db": "gain of the receiving chain",
     "chain_noise_floor_dbm": "the chain's noise floor at the receiver input in the bandwidth",

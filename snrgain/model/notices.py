@@ -42,6 +42,8 @@ class Notice:
     bands whose best resistors differ by band; snrgain.decide.bandplan.resistor_notices),
     ``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target, velocity_factor: a wire past
     the maximum-effective-length rule that a shorter one beats on RDF; snrgain.decide.decisions),
+    ``near-raised-source`` (source, distance_m, height_m, others: an antenna, the reference too, within 10 m on the
+    plan of a placed noise source 5 m or more up, which may be a power line: the trade's caution; snrgain.decide.lot),
     ``reference-at-origin`` (where: a reference without a position whose place, the plan's origin, is off the lot,
     in a keep-out area or on a candidate; snrgain.decide.lot),
     ``feed-line-lengths-differ`` (chain_m, run_m: an antenna's chain cable length a quarter or more off its

@@ -71,7 +71,7 @@ class AntennaResult:
         NaN if no gain can [dB]
     preamp_position : where that preamplifier goes: "receiver" (before the receiver), "antenna" (after the
         transformer, where a lossy feed line follows), "as placed" (the chain's own), None if no gain helps
-    receiver_limited : True if margin_db falls below the margin target at any hour
+    receiver_limited : True if margin_db, to 0.1 dB (as printed), falls below the margin target at any hour
     preamp_best_effort : where no preamplifier gain brings the margin to the target at some hour, the one that comes
         closest (snrgain.physics.chain.best_effort_preamp): gain_db, position, snr_loss_db (per month and hour, the
         receiver's SNR loss with it); else None

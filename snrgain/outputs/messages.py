@@ -489,6 +489,16 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             + f"; {v['filter_db']:.0f} dB of filtering at "
             "both stations' frequencies before the first amplifier brings it down to the noise"
         )
+    if n.code == "near-raised-source":
+        also = "".join(f" (and {o!r})" for o in v.get("others", ()))
+        d = v["distance_m"]
+        where = f"comes within {length_text(d, unit, 0)} on the plan of" if d * per_m(unit) >= 0.5 else "passes under"
+        return (
+            f"{n.antenna}: {where} noise source {v['source']!r}{also}, {length_text(v['height_m'], unit, 0)} up, "
+            "which may be an overhead power line: "
+            "keep every wire, mast and support well clear of power lines, never where a falling wire or support "
+            "could touch one; follow local codes and the utility's clearances"
+        )
     if n.code == "source-in-keep-out":
         return (
             f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r} (expected of a device in a "
@@ -580,6 +590,12 @@ def best_effort_text(v: dict) -> str:
     )
 
 
+def preamp_gain_said(gain_db: float) -> str:
+    """A preamplifier gain needed, in whole dB as the table and the warning say it; a gain under 0.5 dB (a margin a
+    few hundredths of a dB short) said as 1 dB, the least that reaches the target, never as 0 dB."""
+    return f"{max(float(gain_db), 1.0) if gain_db > 0 else 0.0:.0f}"
+
+
 def preamp_advice_text(gain_db: float, position: str | None) -> str:
     """What preamplifier would meet the margin target, in words (NaN gain: none would)."""
     if gain_db is None or not np.isfinite(gain_db):
@@ -592,7 +608,7 @@ def preamp_advice_text(gain_db: float, position: str | None) -> str:
     else:
         where = "before the receiver" if position == "receiver" else "at the antenna, after the transformer"
         which = f"a preamplifier of {SUGGESTED_PREAMP_NOISE_FIGURE_DB:g} dB noise figure {where}"
-    return f"About {gain_db:.0f} dB of gain from {which} would reach the target."
+    return f"About {preamp_gain_said(gain_db)} dB of gain from {which} would reach the target."
 
 
 PLAN_WORTH = (

@@ -10,7 +10,7 @@ import numpy as np
 from snrgain.model.labelled import DATAFRAME_COLUMNS
 from snrgain.model.results import Results
 from snrgain.outputs.csvcells import csv_writer
-from snrgain.outputs.messages import criterion_words
+from snrgain.outputs.messages import criterion_words, preamp_gain_said
 from snrgain.units import length_both_text, length_text, lengths_text, number_text, s_units, signed_text
 
 
@@ -130,7 +130,7 @@ def preamp_cell(limited: bool, gain_db, best_effort: dict | None = None) -> str:
         return "-"
     g = np.asarray(gain_db, dtype=float)
     if not np.any(np.isnan(g)):
-        return f"{float(np.max(g)):.0f}"
+        return preamp_gain_said(float(np.max(g)))
     return "none" if best_effort is None else f"{best_effort['gain_db']:.0f}*"
 
 

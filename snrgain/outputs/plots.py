@@ -39,6 +39,7 @@ from snrgain.outputs.style import (
     target_looks,
     unwrapped,
 )
+from snrgain.physics.chain import short_of_target
 from snrgain.units import signed_text
 
 FLOOR_SPAN_DB = 40.0
@@ -862,21 +863,22 @@ def ranking_chart(results, *, ax=None):
     axes[1].set_title("RDF per target", fontsize=10, y=1.0)
     target = lab.attrs["margin_target_db"]
     margin = np.nanmin(lab.get("margin_db")[keep], axis=(1, 2))
+    below = short_of_target(margin, target)  # as the table marks it: the margin said to 0.1 dB
     _barh(
         axes[2],
         y,
         margin,
         height=0.6,
         colors=colors,
-        edgecolors=["black" if m < target else "none" for m in margin],
+        edgecolors=["black" if b else "none" for b in below],
         lw=1.5,
     )
     axes[2].axvline(target, color="black", ls=":", label=f"target {target:g} dB")
     lo_x, hi_x = axes[2].get_xlim()
     axes[2].set_xlim(lo_x, hi_x + 0.15 * (hi_x - lo_x))  # room for the values beside the bars
     short = [  # the values below the target, whose labels may run over its line: placed beyond it if they do (below)
-        (axes[2].text(v, yi, f" {v:.1f}" + (" !" if v < target else ""), va="center", fontsize=8), v < target)
-        for yi, v in zip(y, margin)
+        (axes[2].text(v, yi, f" {v:.1f}" + (" !" if b else ""), va="center", fontsize=8), b)
+        for yi, v, b in zip(y, margin, below)
     ]
     short = [t for t, below in short if below]
     axes[2].set_xlabel("margin over the chain's floor (dB)")

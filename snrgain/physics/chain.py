@@ -355,7 +355,8 @@ class NoiseBudget:
     floor_dbm : the chain's own noise floor at the receiver input, k T0 b F G [dBm]
     margin_db : noise_dbm minus floor_dbm [dB]
     receiver_snr_loss_db : SNR lost to the chain's noise, 10 log10((T_A + T_chain) / T_A) [dB]
-    preamp_gain_needed_db : preamplifier gain that brings the margin to the target; 0 if met, NaN if none can [dB]
+    preamp_gain_needed_db : preamplifier gain that brings the margin to the target (the chain's own preamplifier's
+        gain, else 0 if met: a margin met as said to 0.1 dB, :func:`short_of_target`, is met), NaN if none can [dB]
     preamp_position : "receiver", "antenna", "as placed" (see :func:`preamp_advice`), or None
     best_effort : where no gain reaches the target at some hour, the preamplifier that comes closest
         (:func:`best_effort_preamp`); else None
@@ -368,6 +369,15 @@ class NoiseBudget:
     preamp_gain_needed_db: np.ndarray
     preamp_position: str | None
     best_effort: BestEffortPreamp | None = None
+
+
+def short_of_target(margin_db, target_db: float) -> np.ndarray:
+    """Where a margin falls short of the target as it is said: to 0.1 dB, as the tables, the warnings and the figures
+    print it (a margin of 9.97 dB is "10.0" and meets a 10 dB target; 9.94 dB is "9.9" and does not).  One test for
+    the receiver-limited verdict, the '!' mark and the gain advised, so none says "short" of a margin printed at it."""
+    m = np.asarray(margin_db, dtype=float)
+    said = np.array([float(f"{x:.1f}") for x in m.ravel()]).reshape(m.shape)
+    return said < target_db
 
 
 def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, margin_target_db: float) -> NoiseBudget:
@@ -383,6 +393,10 @@ def noise_budget(chain: Chain, antenna_temperature_k, *, bandwidth_hz: float, ma
     advise = _preamp_advisor(chain)
     advice = [advise(float(t), margin_target_db) for t in t_a.ravel()]
     needed = np.array([a[0] for a in advice], dtype=float).reshape(t_a.shape)
+    # a margin short of the target yet said at it (to 0.1 dB) is met: the gain the chain has now (none suggested)
+    said_met = (noise - floor < margin_target_db) & ~short_of_target(noise - floor, margin_target_db)
+    now = 0.0 if chain.preamp_index is None else float(10.0 * np.log10(chain.stages[chain.preamp_index].gain))
+    needed = np.where(said_met, now, needed)
     where = sorted({a[1] for a in advice if a[1]})
     best = best_effort_preamp(chain, t_a) if np.any(np.isnan(needed)) else None
     return NoiseBudget(noise, floor, noise - floor, loss, needed, where[-1] if where else None, best)

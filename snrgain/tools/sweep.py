@@ -7,7 +7,8 @@ A varied key is written ``TABLE: KEY = VALUES`` (snrgain's own syntax):
 - VALUES is a range ``START to STOP by STEP`` (the same unit throughout, STOP included when the steps reach
   it: ``150 m to 350 m by 10 m``; its values kept to 12 decimal places, a finer step refused) or a list ``A, B, C``
   (``sandy soil, moist loam``; ``1, 7`` for months; a value that is itself a list in brackets, as the scenario
-  writes it: ``[0, 40], [30, 40]`` for two positions).
+  writes it: ``[0, 40], [30, 40]`` for two positions).  The output column holds a quantity's numbers with the unit
+  in its name, for a range and for a list alike (``Beverage NE: height [m]``).
 
     >>> v = parse_vary("Beverage NE: length = 150 m to 250 m by 50 m")
     >>> v.table, v.key, v.values, v.column
@@ -82,9 +83,9 @@ class Vary:
     key: str
     values: list
     column: str
-    """The output column holding the design's value (the unit in brackets for a range)."""
+    """The output column holding the design's value (the unit in brackets for a range, or a list of quantities)."""
     column_values: list
-    """The values as written in the column: numbers in the range's unit, or the list items."""
+    """The values as written in the column: numbers in the range's unit or the list's (_list_column), else the items."""
 
 
 def _term(text: str, what: str, arg: str) -> tuple[float, str]:
@@ -134,6 +135,47 @@ def _bracketed(item: str, arg: str):
         ) from None
 
 
+SI_SYMBOLS = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg"}
+SI_SYMBOLS |= {"time": "s", "power": "W"}
+"""The unit a listed key's column is written in where its items mix units of one kind (snrgain.units' dimensions;
+angles in degrees, as the scenario writes them)."""
+
+
+DB_UNITS = frozenset({"dB", "dBm", "dBi", "dB/100m", "dB/100ft", "dB/m", "dB/ft"})
+"""Units of decibels a listed value may carry besides snrgain.units' dimensions' (levels, gains, line loss)."""
+
+
+def _a_unit(text: str | None) -> bool:
+    """Whether a list item's word after its number is a unit (so ``5 Oaks Farm``, a name, stays text)."""
+    from snrgain.units import UNITS
+
+    key = re.sub(r"\s+", "", text or "")
+    return bool(key) and (key in DB_UNITS or any(key in table for table in UNITS.values()))
+
+
+def _list_column(vals: list) -> tuple[str, list]:
+    """(unit, cells) of a listed key's column, as a range's is written, for a spreadsheet: where every item is a
+    number with one unit, the numbers and that unit (``1 m, 2 m``: 1.0, 2.0 [m]); with units of one kind mixed, the
+    numbers in its SI unit (degrees for angles: ``1 m, 6 ft``: 1.0, 1.8288 [m]); else (numbers alone, ``auto``, a
+    ground's or family's name, a position) the items as they are."""
+    from snrgain.units import QuantityError, parse_quantity
+
+    if all(isinstance(v, (int, float)) for v in vals):
+        return "", list(vals)
+    terms = [_TERM.match(v) if isinstance(v, str) else None for v in vals]
+    if all(t is not None and _a_unit(t.group(2)) for t in terms):
+        units = {re.sub(r"\s+", "", t.group(2)) for t in terms}
+        if len(units) == 1:
+            return units.pop(), [float(t.group(1)) for t in terms]
+        for dimension, unit in SI_SYMBOLS.items():
+            try:
+                si = [parse_quantity(v, dimension) for v in vals]
+            except QuantityError:
+                continue
+            return unit, [math.degrees(x) for x in si] if dimension == "angle" else si
+    return "", list(vals)
+
+
 def parse_vary(text: str) -> Vary:
     """Read one ``TABLE: KEY = VALUES`` argument (module docstring); raises VaryError naming it."""
     if ":" not in text or "=" not in text:
@@ -178,8 +220,8 @@ def parse_vary(text: str) -> Vary:
         if not all(items):
             raise VaryError(text, f"item {items.index('') + 1} of the list is empty (two commas, or one at an end)")
         vals = [_bracketed(s, text) if s.startswith("[") else _scalar(s) for s in items]
-        column = f"{table}: {key}"
-        col_vals = list(vals)
+        unit, col_vals = _list_column(vals)
+        column = f"{table}: {key} [{unit}]" if unit else f"{table}: {key}"
     if listed:
         vals = [[v] for v in vals]
     return Vary(text, table, key, vals, column, col_vals)
