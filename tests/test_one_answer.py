@@ -174,10 +174,12 @@ COMPOSERS = {
     "snrgain/decide/source_place.py",
     "snrgain/decide/bandplan.py",
     "snrgain/sky/noiseday.py",
+    "snrgain/tools/locatenear.py",
 }
 """The stage modules the pipeline is made of (bandplan: the plan across the bands of evaluate_bands; source_place:
 the decide stage's notice on a placed source's place, the products' pickup of it moved); noiseday builds the sky
-alone for `snrgain noise` (no antennas)."""
+alone for `snrgain noise` (no antennas); locatenear is locate's fit of a placed source, each reading antenna's
+pickup of it read through the products' own function (so the fit and rank hear a source alike), no stage composed."""
 
 
 def test_only_the_pipeline_composes_the_stages():

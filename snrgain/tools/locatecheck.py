@@ -133,8 +133,7 @@ def copy_levels(text: str, res, data, names, *, base_dir: Path | None = None, la
     """Each reading's level as the copy ``text`` gives it (module docstring) beside the fitted one, for the sources
     ``names`` of ``res``; ``base_dir``: where the copy's relative paths start.  Raises what loading the copy
     raises (a copy rank cannot read)."""
-    from noisemodels.sphere import upper_hemisphere
-    from snrgain.model.products import products
+    from snrgain.model import pipeline
     from snrgain.physics.receiver import power_dbm
     from snrgain.scenario import load
     from snrgain.sky import noise as noisemod
@@ -157,11 +156,10 @@ def copy_levels(text: str, res, data, names, *, base_dir: Path | None = None, la
         candidates=readers,
         feed_lines={},
     )
-    grid = upper_hemisphere(sc.nside)
-    skies = noisemod.build_skies(
-        noise, sc.place, months=sc.times.months[:1], utc_hours=sc.times.utc_hours[:1], grid=grid
-    )
-    temps = products(sc, sc.antennas, grid, skies).temps.by_component[:, 1:, 0, 0]  # (components, readings)
+    sc = replace(sc, times=replace(sc.times, months=sc.times.months[:1], utc_hours=sc.times.utc_hours[:1]))
+    grid = pipeline.sky_grid(sc)
+    skies = pipeline.build_sky(sc, grid)  # the pipeline's own stages, as rank makes them
+    temps = pipeline.products(sc, sc.antennas, grid, skies).temps.by_component[:, 1:, 0, 0]  # (components, readings)
     copy = power_dbm(temps.sum(axis=0), bandwidth_hz=data.bandwidth_hz)
     bg = 10 ** (np.asarray(res.background_dbm) / 10)
     fitted = 10 * np.log10(bg + np.sum(10 ** (np.asarray(res.source_dbm) / 10), axis=0))
