@@ -192,3 +192,27 @@ def test_a_sweep_varies_a_candidate_on_its_own_bands_only(tmp_path):
     args = ["sweep", str(one), "--vary", "Beverage NE: length = 200 m, 250 m", "-o", str(out), "--overwrite"]
     res = CliRunner().invoke(cli, args)
     assert res.exit_code == 0, res.output  # it once stopped on the candidate's bands as an unknown key
+
+
+def test_a_built_antennas_warnings_on_a_band_it_does_not_serve_are_set_apart():
+    # The plan builds the Beverage for 160 m and the pair for 40 m: on 40 m the Beverage is built but not used, so
+    # what its 40 m figures ask (a preamplifier there, say) is set apart, and said on 160 m where it serves.
+    from dataclasses import replace
+
+    from snrgain.decide.plan import Service
+    from snrgain.model.results import Notice
+
+    br = evaluate_bands(_station())
+    columns = list(br.columns)
+    by_target = {
+        columns.index(("160 m", "Europe")): [Service("Beverage NE", [1], [0.0], 7.0)],
+        columns.index(("40 m", "Europe")): [Service("40 m pair", [1], [0.0], 9.0)],
+    }
+    plan = replace(br.plan, antennas=["Beverage NE", "40 m pair"], added_db=[5.0, 2.0], by_target=by_target)
+    limited = Notice("wire-too-long", "Beverage NE", {})
+    bands = tuple((name, replace(r, notices=[limited])) for name, r in br.bands)
+    marked = replace(br, plan=plan, bands=bands)
+    assert "Beverage NE" in marked.built_names("160 m") and "Beverage NE" not in marked.built_names("40 m")
+    said_160, apart_160 = marked.band("160 m").notices_apart(marked.built_names("160 m"))
+    said_40, apart_40 = marked.band("40 m").notices_apart(marked.built_names("40 m"))
+    assert said_160 == [limited] and apart_40 == [limited]

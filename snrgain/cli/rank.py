@@ -100,7 +100,7 @@ def rank(scenario, fmt, build, all_warnings, output, overwrite, allow_long, nsid
         click.echo(f"warning: {w}", err=True)
     if apart:
         where = "--all-warnings says them" + ("" if fmt == "json" else "; --format json holds every warning")
-        click.echo(f"note: {apart_text(apart, where)}", err=True)
+        click.echo(f"note: {apart_text(apart, where, per_band=bool(several))}", err=True)
     if fmt == "json":
         text = out.to_json(results)
     elif fmt == "csv":

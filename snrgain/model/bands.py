@@ -35,16 +35,15 @@ class BandResults:
         return self._marked([(name, r.warnings) for name, r in self.bands])
 
     def warnings_apart(self) -> tuple[list[str], dict[str, int]]:
-        """(said, apart): :attr:`warnings` but those on candidates the plan across the bands does not build (each
-        band's :meth:`Results.notices_apart` against that plan), counted by antenna instead (its name: how many, over
-        every band)."""
+        """(said, apart): :attr:`warnings` but those on candidates the plan across the bands does not build or does
+        not use on the band (each band's :meth:`Results.notices_apart` against :meth:`built_names` of that band),
+        counted by antenna instead (its name: how many, over every band)."""
         from snrgain.model.results import apart_counts
         from snrgain.outputs.messages import notice_text
 
         per_band, counts, seen = [], {}, set()
-        built = self.built_names()
         for name, r in self.bands:
-            said, apart = r.notices_apart(built)
+            said, apart = r.notices_apart(self.built_names(name))
             unit = r.site.get("length_unit", "m")
             per_band.append((name, [notice_text(n, unit=unit) for n in said]))
             once = []  # a warning said word for word on several bands counts once, as it would be said once
@@ -56,13 +55,25 @@ class BandResults:
             apart_counts(r, once, counts)
         return self._marked(per_band), counts
 
-    def built_names(self) -> frozenset[str] | None:
+    def built_names(self, band: str | None = None) -> frozenset[str] | None:
         """What the plan across the bands builds (:meth:`Results.built_names` of each band against it, taken
-        together: a phasing unit built for one band brings its parts on every band they serve); None without a
-        plan."""
+        together: a phasing unit built for one band brings its parts on every band they serve); with ``band``, what
+        it builds and uses on that band: the antennas that serve a target there (a switched one with every state, a
+        phasing unit with its parts), so that a built antenna's warnings on a band it does not serve are set apart
+        too; None without a plan."""
         if self.plan is None:
             return None
-        return frozenset().union(*(r.built_names(self.plan.antennas) for _, r in self.bands))
+        if band is None:
+            return frozenset().union(*(r.built_names(self.plan.antennas) for _, r in self.bands))
+        serving = {
+            x
+            for c, rows in self.plan.by_target.items()
+            if self.columns[c][0] == band
+            for sv in rows
+            for x in (sv.antenna, sv.group)
+            if x is not None
+        }
+        return self.band(band).built_names(sorted(serving))
 
     def _marked(self, per_band: list[tuple[str, list[str]]]) -> list[str]:
         from snrgain.outputs.messages import notice_text

@@ -155,9 +155,10 @@ def choke_text(ohm: float) -> str:
     return f"about {significant_text(float(f'{float(ohm):.2g}'), 2)} ohm"
 
 
-def apart_text(counts: dict[str, int], where: str) -> str:
+def apart_text(counts: dict[str, int], where: str, per_band: bool = False) -> str:
     """The one line that counts the warnings set apart (on candidates the station plan does not build:
-    snrgain.model.results.Results.notices_apart), by antenna; ``where`` says where they are said in full.
+    snrgain.model.results.Results.notices_apart; ``per_band``, a plan across bands: or does not use on the band of
+    the warning), by antenna; ``where`` says where they are said in full.
 
     >>> apart_text({"flag pair": 3, "BOG Japan": 1}, "see below")
     '4 more warnings on candidates the station plan does not build (flag pair: 3, BOG Japan: 1); see below'
@@ -165,7 +166,8 @@ def apart_text(counts: dict[str, int], where: str) -> str:
     total = sum(counts.values())
     each = ", ".join(f"{name}: {k}" for name, k in counts.items())
     what = "warning" if total == 1 else "warnings"
-    return f"{total} more {what} on candidates the station plan does not build ({each}); {where}"
+    whose = "does not build or does not use on that band" if per_band else "does not build"
+    return f"{total} more {what} on candidates the station plan {whose} ({each}); {where}"
 
 
 def notice_text(n: Notice, unit: str = "m") -> str:
