@@ -34,12 +34,15 @@ ADVISORY_CODES = frozenset(
         "feed-line-cost",
         "local-source-dominates",
         "far-ground-too-high",
+        "strong-signal-overload",
+        "strong-signal-product",
     }
 )
 """Notice codes that weigh one candidate's own figures or build (a preamplifier it needs, its resistor, its length,
-its phasing lines' precision, its feed line, what its noise rests on): of a candidate the station plan does not build
-they are set apart (:meth:`Results.notices_apart`).  Every other notice (the site, the lot, strong signals, an
-input that disagrees with itself, an array pointing away from its bearing) is always said."""
+its phasing lines' precision, its feed line, what its noise rests on, the broadcast levels its chain would take): of
+a candidate the station plan does not build they are set apart (:meth:`Results.notices_apart`).  Every other notice
+(the site, the lot, an input that disagrees with itself, an array pointing away from its bearing, a safety caution)
+is always said, and every notice on the reference."""
 
 
 @record
