@@ -771,3 +771,25 @@ def test_the_side_help_says_where_its_default_comes_from():
     assert "in the scenario copied (--scenario with --write)" in " ".join(out.split())
     res = CliRunner().invoke(cli, ["locate", "r.toml", "--scenario", str(BASE)])
     assert res.exit_code == 2 and "--scenario and --write go together" in res.output
+
+
+def test_a_pattern_table_is_read_without_the_files_ground_and_a_combination_is_refused(tmp_path):
+    # The readings file's ground was put into every antenna table, and a pattern table, which takes no ground, was
+    # refused for a key the user never wrote ("antenna.vertical.ground: unknown key here").  The ground now goes only
+    # to the families that stand on one, and the pattern file is found from the readings file's folder.
+    import shutil
+
+    (tmp_path / "patterns").mkdir()
+    shutil.copy(SCENARIOS / "patterns" / "cardioid-pair.csv", tmp_path / "patterns")
+    table = 'family = "tabulated"\nfile = "patterns/cardioid-pair.csv"\n'
+    rf = tmp_path / "r.toml"
+    rf.write_text(_example().replace('family = "vertical"\nheight = "18 m"\n', table))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.stdout)["ok"] and "ground" not in res.stderr
+    # A combination is made of a scenario's antennas, which a readings file has not: said, with the families taken.
+    rf.write_text(_example().replace('family = "vertical"\nheight = "18 m"\n', 'family = "combination"\n'))
+    res = CliRunner().invoke(cli, ["locate", str(rf)])
+    assert res.exit_code == 2 and "Traceback" not in res.output
+    assert "antenna.vertical.family: a combination is made of other antennas of a scenario" in res.stderr
+    assert "small-loop" in res.stderr and "tabulated" in res.stderr and "isotropic" not in res.stderr
