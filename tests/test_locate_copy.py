@@ -186,3 +186,24 @@ def test_a_copy_rank_refuses_is_said_and_kept(tmp_path):
     data = json.loads(res.stdout)
     assert data["copy_check"] is None and "shed vertical" in data["copy_check_error"]
     assert f"warning: rank cannot read the copy: {copy}: noise.local" in res.stderr and copy.exists()
+
+
+def test_readings_of_another_band_are_not_copied(tmp_path):
+    # Readings at 3.55 MHz were written into a 7.1 MHz scenario as its Fa there, with a warning and exit 0; as
+    # noise-readings leaves out a reading off the band, the copy is refused before the fit, naming both frequencies.
+    rf, base, copy = tmp_path / "readings.toml", tmp_path / "copse.toml", tmp_path / "copy.toml"
+    rf.write_text(_readings())
+    base.write_text(_scenario(frequency="7.1 MHz"))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--scenario", str(base), "--write", str(copy)])
+    assert res.exit_code == 2 and "Traceback" not in res.output and not copy.exists()
+    assert "warning" not in res.stderr and "fit converged" not in res.stdout  # refused before the fit
+    assert "the readings were taken at 3.55 MHz and the scenario listens at 7.1 MHz (40m)" in res.stderr
+    assert "more than 5 % apart" in res.stderr and "no copy written" in res.stderr
+
+
+def test_a_reading_speaks_for_its_own_amateur_band_or_within_5_percent():
+    from snrgain.tools.noisereadings import on_band
+
+    assert on_band(1.99e6, 1.83e6) and on_band(3.8e6, 3.55e6)  # one band, more than 5 % apart
+    assert on_band(2.05e6, 1.96e6) and not on_band(2.07e6, 1.96e6)  # off the band: 5 % either way
+    assert not on_band(7.1e6, 1.83e6)

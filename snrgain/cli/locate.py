@@ -72,7 +72,8 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     readings were taken) and distance in the file (one per source, in the order the fit numbers them), each source
     is fitted and written to the scenario as a placed one, heard as rank hears it (a short vertical dipole near the
     ground; its elevation held), and the output says which distance each got; without, as a point at its bearing.
-    The copy is read back as rank reads it, and a reading it gives more than 1 dB off the fit is said.  A fit
+    Readings off every band of the scenario (outside its amateur band and more than 5 % from its frequency) are not
+    copied.  The copy is read back as rank reads it, and a reading it gives more than 1 dB off the fit is said.  A fit
     that finds no direction is reported with its cause and exits 1, writing no file (no plot, no copy).  See
     --example for the file.
     """
@@ -94,6 +95,12 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     data = loc.load_readings(Path(readings))
     loc.check_distances(data, sources, readings)
+    if scenario is not None:  # readings of another band cannot be copied into this one: said before the fit
+        from snrgain.tools.locatecheck import off_every_band
+
+        off = off_every_band(read_scenario_text(scenario), data.freq_hz)
+        if off is not None:
+            raise ValueError(f"--write: {readings} into {scenario}: {off}; no copy written")
     if fit_elevation and data.near is not None:
         raise click.BadParameter(f"{readings}: {loc.NEAR_ELEVATION_HELD}", param_hint="--fit-elevation")
     try:

@@ -63,6 +63,11 @@ READING_FLOOR_DB = 1.0
 """The least uncertainty of one noise reading [dB]: a receiver's level or S-meter reading over a minute of noise
 (common practice); the fitted offset's tolerance is never narrower than this one's over the readings'
 sensitivities."""
+OFF_BAND_FRACTION = 0.05
+"""A reading outside the scenario's amateur band and further than this from its frequency (as a ratio, either way)
+speaks for another frequency: man-made noise's Fa falls some 28 dB a decade (ITU-R P.372 Table 1's slopes), so 5 %
+moves it by about 0.6 dB, near one reading's least uncertainty (READING_FLOOR_DB); within the band, the level read
+is the band's."""
 MAX_TOLERANCE_DB = 10.0
 """A wider 90 % half-width than this and the fit is not a result: P.372's environment curves lie 4-14 dB apart at
 the low bands (city, residential, rural, quiet rural; ITU-R P.372 Table 2), so +-10 dB spans two or more of them
@@ -494,6 +499,16 @@ def antenna_temperature(r: Reading, t_e: float, gain: float) -> float:
     return p_w / (BOLTZMANN * r.bandwidth_hz * gain) - t_e
 
 
+def on_band(freq_hz: float, band_hz: float) -> bool:
+    """Whether a level read at ``freq_hz`` speaks for a scenario band at ``band_hz`` [Hz]: within its amateur band,
+    or within :data:`OFF_BAND_FRACTION` of its frequency."""
+    from snrgain.tools import logs
+
+    if logs.band_of_hz(freq_hz) == logs.band_of_hz(band_hz) and logs.band_of_hz(band_hz) in logs.BANDS_MHZ:
+        return True
+    return abs(np.log(freq_hz / band_hz)) <= np.log1p(OFF_BAND_FRACTION)
+
+
 def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "noise readings") -> NoiseFit:
     """The man-made offset the readings give (the module's note), with their spread; ``label``: the readings' file,
     named in errors."""
@@ -526,9 +541,10 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
             "man_made_fa_db": None,
             "note": "",
         }
-        if logs.band_of_hz(r.freq_hz) != band and abs(np.log(r.freq_hz / freq)) > np.log(1.05):
+        if not on_band(r.freq_hz, freq):
             row["note"] = (
-                f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band}) and more than 5 % from "
+                f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band}) and more than "
+                f"{OFF_BAND_FRACTION * 100:g} % from "
                 f"its {freq / 1e6:g} MHz"
             )
             rows.append(row)
