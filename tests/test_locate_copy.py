@@ -173,19 +173,29 @@ def test_a_source_far_off_is_heard_as_its_pattern_says(spec):
     assert 10 * np.log10(got / gv[0]) == pytest.approx(0.0, abs=0.1)
 
 
-def test_a_copy_rank_refuses_is_said_and_kept(tmp_path):
-    # The source lands on a candidate of the scenario (rank needs a placed source clear of every antenna): the copy
-    # is written as fitted, and locate says rank cannot read it rather than failing or keeping quiet.
+def test_a_copy_check_refuses_is_not_written(tmp_path):
+    # The source lands on a candidate of the scenario (a placed source must stand 1 m or more from every antenna):
+    # the copy was written all the same, with a warning, and `check` of it then failed.  Now the copy is loaded
+    # before it is written: the fit is printed, nothing is written (nor the plot), and the command exits 1 (the fit's
+    # result cannot be written: no bad input), naming the antenna and where the readings put the source.
     base = _scenario() + '\n[[candidate]]\nname = "shed vertical"\n' + VERTICAL + "position = [109.4, -49.3]\n"
     (tmp_path / "copse.toml").write_text(base)
-    rf, copy = tmp_path / "readings.toml", tmp_path / "copy.toml"
+    rf, copy, png = tmp_path / "readings.toml", tmp_path / "copy.toml", tmp_path / "dir.png"
     rf.write_text(_readings())
-    args = ["locate", str(rf), "--scenario", str(tmp_path / "copse.toml"), "--write", str(copy), "--format", "json"]
-    res = CliRunner().invoke(cli, args)
-    assert res.exit_code == 0 and "Traceback" not in res.output
+    args = ["locate", str(rf), "--scenario", str(tmp_path / "copse.toml"), "--write", str(copy), "--plot", str(png)]
+    for fmt in ("table", "json"):
+        res = CliRunner().invoke(cli, [*args, "--format", fmt])
+        assert res.exit_code == 1 and "Traceback" not in res.output
+        assert not copy.exists() and not png.exists()
+        assert f"snrgain: --write: the copy, loaded as check and rank load it, is refused:\n{copy}: noise.local" in (
+            res.stderr
+        )
+        assert 'the source stands 0.00 m from candidate 6 ("shed vertical"); place it at least 1 m away' in res.stderr
+        assert "'located source' stands where the fit puts it: 120 m from the reading point [0 m, 0 m]" in res.stderr
+        assert res.stderr.rstrip().endswith("no copy written, nor the plot")
     data = json.loads(res.stdout)
-    assert data["copy_check"] is None and "shed vertical" in data["copy_check_error"]
-    assert f"warning: rank cannot read the copy: {copy}: noise.local" in res.stderr and copy.exists()
+    assert data["ok"] and data["written"] is None and "shed vertical" in data["not_written_because"]
+    assert "plot" not in data and "written_sources" not in data
 
 
 def test_readings_of_another_band_are_not_copied(tmp_path):
