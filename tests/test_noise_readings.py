@@ -187,6 +187,22 @@ def test_cli_example_fits_and_writes_a_copy_that_ranks(tmp_path):
         ('antenna = "TX vertical"\nantenna_db = -90\nload_db = -110', "reading[1].frequency", "missing"),
         ('antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = -90', "reading[1]", "antenna_db and load_db"),
         ('antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = -90\nload_db = -80\n', "reading[1]", "no rise"),
+        # a rise of 320 dB was taken (T_A 9e35 K); nan was refused without its value or what is allowed
+        (
+            'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = 200\nload_db = -120\n',
+            "reading[1]: antenna_db = 200 and load_db = -120: a rise of 320 dB over the load",
+            "a rise lies above 0 and at most 100 dB",
+        ),
+        (
+            'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = nan\nload_db = -120\n',
+            "reading[1].antenna_db: the receiver's output noise with the antenna: a finite number of dB",
+            "in the same dB scale as load_db; got nan",
+        ),
+        (
+            'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = -20\nload_db = "-inf"\n',
+            "reading[1].load_db: the receiver's output noise with the matched load",
+            'got "-inf"',
+        ),
         (
             'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nbandwidth = "2 kHz"\ns_meter = "S4"\nantenna_db = -1',
             "reading[1]",

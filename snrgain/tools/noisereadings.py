@@ -56,6 +56,14 @@ from snrgain.records import record
 
 SMALL_RISE_DB = 3.0
 """Below this rise over the load a reading mostly measures the receiver (common practice)."""
+MAX_RISE_DB = 100.0
+"""The largest rise over a matched load a reading may give [dB].  Both levels are read on one receiver at one gain
+setting, the load's at the receiver's own noise floor: trade tests of receivers quote blocking dynamic ranges (from
+the noise floor in a 500 Hz bandwidth to 1 dB of compression by one signal) of some 100 to 150 dB for the best, and
+a noise that far over the floor in the reading's bandwidth fills the whole front end's passband alike (a signal does
+not), so the receiver compresses well before.  Nor does the sky give more at the low bands: the rise is at most the
+antenna's noise over the load's 290 K, and ITU-R P.372's noisiest atmospheric noise at 1.8 MHz (its upper decile,
+the stormiest place and season) lies some 103 dB over kT0b."""
 EDGE_DB = 0.5
 """A fit within this of an end of the schema's offset range is taken as stopped there by the range (the search's
 last step is 0.01 dB, so a fit inside the range by more than half a grid cell found a minimum of its own)."""
@@ -195,6 +203,47 @@ def _kelvin(value) -> float | None:
     return x if 1.0 <= x <= 400.0 else None
 
 
+def _rise_db(r: dict, where: str, problems: list) -> float | None:
+    """A reading's rise over the load [dB] from its antenna_db and load_db, or None with the problems added (each
+    key's value and what it takes; a rise of none, or past :data:`MAX_RISE_DB`, with both values)."""
+    values = {}
+    for key, other, what in (("antenna_db", "load_db", "the antenna"), ("load_db", "antenna_db", "the matched load")):
+        v = r.get(key)
+        try:  # a number, or text of one, as before
+            x = float(v) if isinstance(v, (int, float, str)) and not isinstance(v, bool) else float("nan")
+        except ValueError:
+            x = float("nan")
+        if key not in r:
+            problems.append((f"{where}.{key}", "missing: a rise over a load gives antenna_db and load_db both"))
+        elif not np.isfinite(x):
+            problems.append(
+                (
+                    f"{where}.{key}",
+                    f"the receiver's output noise with {what}: a finite number of dB, in the same dB scale as {other}; "
+                    f"got {toml_repr(v)}",
+                )
+            )
+        else:
+            values[key] = x
+    if len(values) < 2:
+        return None
+    rise = values["antenna_db"] - values["load_db"]
+    given = f"antenna_db = {toml_repr(r['antenna_db'])} and load_db = {toml_repr(r['load_db'])}"
+    if rise <= 0:
+        problems.append(
+            (where, f"{given}: the antenna reads {rise:+.1f} dB against the load: no rise (check the connections)")
+        )
+    elif rise > MAX_RISE_DB:
+        problems.append(
+            (
+                where,
+                f"{given}: a rise of {rise:g} dB over the load; a rise lies above 0 and at most {MAX_RISE_DB:g} dB "
+                "(both levels read on one receiver at one gain setting, in one dB scale: check the scale and values)",
+            )
+        )
+    return rise if 0 < rise <= MAX_RISE_DB else None
+
+
 def load_readings(path) -> list[Reading]:
     """Read a noise-readings file (:data:`EXAMPLE`); ReadingsError naming each problem's reading and key."""
     from snrgain.errors import ReadingsError
@@ -264,17 +313,7 @@ def load_readings(path) -> list[Reading]:
         if has_rise == ("s_meter" in r):
             problems.append((where, "give either antenna_db and load_db (a rise over a matched load) or s_meter"))
         elif has_rise:
-            try:
-                a_db, l_db = float(r["antenna_db"]), float(r["load_db"])
-                if not (np.isfinite(a_db) and np.isfinite(l_db)):
-                    raise ValueError
-                rise = a_db - l_db
-                if rise <= 0:
-                    problems.append(
-                        (where, f"the antenna reads {rise:+.1f} dB against the load: no rise (check the connections)")
-                    )
-            except (KeyError, ValueError, TypeError):
-                problems.append((where, "antenna_db and load_db both, as numbers in the same dB scale"))
+            rise = _rise_db(r, where, problems)
             load_k = _kelvin(r.get("load_temperature", T0_K))
             if load_k is None:
                 problems.append(
