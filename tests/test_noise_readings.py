@@ -342,3 +342,20 @@ def test_write_of_an_undetermined_level_prints_the_readings_writes_nothing_and_e
     d = json.loads(out.stdout)
     assert out.exit_code == 1 and not dest.exists() and d["determined"] is False and d["written"] is None
     assert d["not_written_because"].startswith("the readings do not fix the man-made level")
+
+
+def test_a_reading_given_twice_is_said(tmp_path):
+    # The example's first reading pasted again at the end counted twice without a word.  It still counts as written
+    # (a reading taken again within the minute can read the same), and a note says it weighs twice.
+    first = nr.EXAMPLE.split("[[reading]]")[1].split("# load_temperature")[0]
+    (tmp_path / "r.toml").write_text(nr.EXAMPLE + "\n[[reading]]" + first)
+    out = CliRunner().invoke(cli, ["noise-readings", WREN, str(tmp_path / "r.toml"), "--format", "json"])
+    assert out.exit_code == 0, out.output
+    notes = [n for n in json.loads(out.stdout)["notes"] if "same reading" in n]
+    assert notes == [
+        "readings 1 and 6 are the same reading (time, antenna, frequency and values alike): each counts in the fit, "
+        "so it weighs twice; remove the copies if read once"
+    ]
+    (tmp_path / "once.toml").write_text(nr.EXAMPLE)
+    alone = CliRunner().invoke(cli, ["noise-readings", WREN, str(tmp_path / "once.toml")])
+    assert alone.exit_code == 0 and "same reading" not in alone.output

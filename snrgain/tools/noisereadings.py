@@ -548,6 +548,26 @@ def on_band(freq_hz: float, band_hz: float) -> bool:
     return abs(np.log(freq_hz / band_hz)) <= np.log1p(OFF_BAND_FRACTION)
 
 
+def repeated(readings: list[Reading]) -> list[str]:
+    """A note for each reading given more than once alike (time, antenna, frequency, bandwidth and values): each
+    counts in the fit, as written, and the note says so.  Not refused: a reading taken again within the minute can
+    read the same, and the file's author knows which; left unsaid, a copy pasted twice weighs twice unseen."""
+    seen: dict[tuple, list[int]] = {}
+    for r in readings:
+        key = (r.time, r.antenna, r.freq_hz, r.bandwidth_hz, r.rise_db, r.load_k, r.power_dbm, r.s_meter)
+        seen.setdefault(key, []).append(r.index)
+    return [
+        f"readings {', '.join(map(str, same[:-1]))} and {same[-1]} are the same reading (time, antenna, frequency and "
+        f"values alike): each counts in the fit, so it weighs {_times(len(same))}; remove the copies if read once"
+        for same in seen.values()
+        if len(same) > 1
+    ]
+
+
+def _times(n: int) -> str:
+    return "twice" if n == 2 else f"{n} times"
+
+
 def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "noise readings") -> NoiseFit:
     """The man-made offset the readings give (the module's note), with their spread; ``label``: the readings' file,
     named in errors."""
@@ -600,6 +620,7 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
         rows.append(row)
     if not used:
         raise ValueError("no reading lies in the scenario's band (see each reading's note)")
+    notes += repeated(readings)
     _, t_a, other, mm, t_e = (np.array(x) for x in zip(*used))
     measured = 10.0 * np.log10(np.maximum(t_a + t_e, 1e-30))
 
