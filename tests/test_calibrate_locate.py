@@ -14,8 +14,11 @@ from snrgain.cli.main import cli
 from snrgain.physics.ground import C_M_PER_S
 from snrgain.physics.receiver import power_dbm
 from snrgain.tools import calibrate as cal
-from snrgain.tools.locate import LocateError, Reading, locate
+from snrgain.tools.locate import EXAMPLE, LocateError, Reading, locate
 from tests.conftest import REPO, SCENARIOS
+
+EXAMPLE_80M = EXAMPLE.replace('frequency = "1.83 MHz"', 'frequency = "3.55 MHz"')
+"""locate's example readings taken on the test scenarios' band (locate copies readings only into their own band)."""
 
 F = 1.83e6
 
@@ -274,9 +277,8 @@ def test_too_few_readings_for_the_unknowns():
 
 def test_locate_command_writes_plot_and_scenario(tmp_path):
     runner = CliRunner()
-    ex = runner.invoke(cli, ["locate", "--example"]).stdout
     rf = tmp_path / "r.toml"
-    rf.write_text(ex)
+    rf.write_text(EXAMPLE_80M)
     png = tmp_path / "dir.png"
     out = tmp_path / "with-source.toml"
     res = runner.invoke(
@@ -390,11 +392,10 @@ def test_a_failed_fit_writes_nothing_and_exits_1_either_way(tmp_path):
 
 def test_locate_writes_a_placed_source_and_replaces_one_of_the_same_name(tmp_path):
     runner = CliRunner()
-    ex = runner.invoke(cli, ["locate", "--example"]).stdout
     rf = tmp_path / "r.toml"
-    rf.write_text(ex.replace('ground = "moist loam"', 'ground = "moist loam"\nat = [10, 20]\ndistance = "50 m"'))
+    rf.write_text(EXAMPLE.replace('ground = "moist loam"', 'ground = "moist loam"\nat = [10, 20]\ndistance = "50 m"'))
     first, second = tmp_path / "one.toml", tmp_path / "two.toml"
-    base = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # no files beside it: the copy runs anywhere
+    base = _on_160m(tmp_path)  # no files beside it: the copy runs anywhere
     res = runner.invoke(cli, ["locate", str(rf), "--scenario", str(base), "--write", str(first)])
     assert res.exit_code == 0, res.output
     assert "fit converged" in res.stdout
@@ -580,7 +581,7 @@ def test_the_side_of_an_ambiguous_bearing_can_be_given(tmp_path):
 
     runner = CliRunner()
     rf = tmp_path / "r.toml"
-    rf.write_text(runner.invoke(cli, ["locate", "--example"]).stdout)
+    rf.write_text(EXAMPLE_80M)
     plain = runner.invoke(cli, ["locate", str(rf), "--format", "json"])
     fitted = json.loads(plain.stdout)["sources"][0]
     assert fitted["ambiguous_180"]
@@ -612,6 +613,13 @@ FLAG_READINGS = "".join(
 )
 
 
+def _on_160m(tmp_path):
+    """BASE on the example readings' band, 1.83 MHz (locate copies readings only into a scenario of their band)."""
+    out = tmp_path / "base-160m.toml"
+    out.write_text(BASE.read_text().replace('frequency = "3.55 MHz"', 'frequency = "1.83 MHz"', 1))
+    return out
+
+
 def _example(extra="", flag=False):
     """The example readings file with ``extra`` keys at its top (and a flag read three ways, which tells the side)."""
     from snrgain.tools.locate import EXAMPLE
@@ -625,7 +633,7 @@ def test_a_distance_list_gives_one_distance_per_source(tmp_path):
     # one of them known only to +- 39 deg.  A distance places one source: the list must give one per source.
     rf = tmp_path / "r.toml"
     out = tmp_path / "o.toml"
-    copy = ["--scenario", str(BASE), "--write", str(out)]
+    copy = ["--scenario", str(_on_160m(tmp_path)), "--write", str(out)]
     for distance, sources, said in (
         ('["50 m", "60 m", "70 m"]', 1, "3 distances for 1 source (--sources 1)"),
         ('"50 m"', 2, "one distance for 2 sources (--sources 2)"),
@@ -771,3 +779,25 @@ def test_the_side_help_says_where_its_default_comes_from():
     assert "in the scenario copied (--scenario with --write)" in " ".join(out.split())
     res = CliRunner().invoke(cli, ["locate", "r.toml", "--scenario", str(BASE)])
     assert res.exit_code == 2 and "--scenario and --write go together" in res.output
+
+
+def test_a_pattern_table_is_read_without_the_files_ground_and_a_combination_is_refused(tmp_path):
+    # The readings file's ground was put into every antenna table, and a pattern table, which takes no ground, was
+    # refused for a key the user never wrote ("antenna.vertical.ground: unknown key here").  The ground now goes only
+    # to the families that stand on one, and the pattern file is found from the readings file's folder.
+    import shutil
+
+    (tmp_path / "patterns").mkdir()
+    shutil.copy(SCENARIOS / "patterns" / "cardioid-pair.csv", tmp_path / "patterns")
+    table = 'family = "tabulated"\nfile = "patterns/cardioid-pair.csv"\n'
+    rf = tmp_path / "r.toml"
+    rf.write_text(_example().replace('family = "vertical"\nheight = "18 m"\n', table))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.stdout)["ok"] and "ground" not in res.stderr
+    # A combination is made of a scenario's antennas, which a readings file has not: said, with the families taken.
+    rf.write_text(_example().replace('family = "vertical"\nheight = "18 m"\n', 'family = "combination"\n'))
+    res = CliRunner().invoke(cli, ["locate", str(rf)])
+    assert res.exit_code == 2 and "Traceback" not in res.output
+    assert "antenna.vertical.family: a combination is made of other antennas of a scenario" in res.stderr
+    assert "small-loop" in res.stderr and "tabulated" in res.stderr and "isotropic" not in res.stderr

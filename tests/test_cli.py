@@ -279,6 +279,10 @@ def test_wire_names_a_ground_given_as_numbers():
     assert res.exit_code == 0, res.output
     first = res.output.splitlines()[0]
     assert first == "beverage: 200.0 m (656 ft) at 2.5 m over a ground of 2 mS/m and relative permittivity 8, 1.83 MHz"
+    # a named ground beside the numbers was dropped without a word; one ground is given one way, as gauge or diameter
+    res = CliRunner().invoke(cli, [*args, "--ground", "sandy soil"])
+    assert res.exit_code == 2 and "Traceback" not in res.output
+    assert "give --ground or --conductivity and --permittivity, not both; got --ground 'sandy soil'" in res.stderr
 
 
 def test_an_output_named_like_an_input_is_refused_and_the_input_kept(tmp_path):

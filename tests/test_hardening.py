@@ -362,8 +362,8 @@ def test_locate_refuses_absurd_readings_and_elevations(tmp_path):
 def test_locate_writes_a_name_with_quotes_as_toml_and_replaces_it_next_time(tmp_path):
     from snrgain.tools import locate
 
-    readings = tmp_path / "r.toml"
-    readings.write_text(locate.EXAMPLE, encoding="utf-8")
+    readings = tmp_path / "r.toml"  # taken on the scenario's band: locate copies readings into their own band only
+    readings.write_text(locate.EXAMPLE.replace('frequency = "1.83 MHz"', 'frequency = "3.55 MHz"'), encoding="utf-8")
     out = tmp_path / "out.toml"
     name = 'the "barn" light \\ east'
     src = REPO / "tests" / "data" / "layout-vertical-and-bog.toml"  # no files beside it: its copy loads anywhere

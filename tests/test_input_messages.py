@@ -323,6 +323,10 @@ VERIFY_SCENARIO = MINIMAL.replace('family = "isotropic"', 'family = "vertical"\n
         (bytes(range(256)) * 8, "not a text log (a NUL byte at character 1)"),
         (bytes(range(128, 256)) * 16 + b"\n", "not a text log (2,048 of its 2,049 characters not UTF-8)"),
         (b"hello world\nthis is no log\n", "none of its 2 lines reads as a decode (too few fields"),
+        # an empty log gave "0 pairs placed", exit 0, every decode of the other log called unpaired
+        (b"", "empty, not one decode"),
+        (b"  \n\t\n", "only blank lines, not one decode"),
+        (b"# a comment\n\n", "only blank lines and comments, not one decode"),
     ],
 )
 def test_verify_refuses_a_log_that_is_not_one_naming_the_file(tmp_path, content, words):

@@ -643,7 +643,7 @@ def test_a_local_source_may_not_take_a_sky_components_name():
             snrgain.evaluate(text.replace(old, f'name = "{name}"', 1))
 
 
-def test_a_pattern_gain_out_of_any_antennas_range_and_an_overflow_are_said(tmp_path):
+def test_a_pattern_gain_out_of_any_antennas_range_and_an_overflow_are_said(tmp_path, capsys):
     # a pattern gain of 1e308 dBi passed check and failed later ("array of sample points is empty"); -1e308 ranked
     # silently; a reading of 1e308 dB said "failed: (34, 'Numerical result out of range')"
     from snrgain.antennas import from_spec
@@ -664,4 +664,16 @@ def test_a_pattern_gain_out_of_any_antennas_range_and_an_overflow_are_said(tmp_p
     assert text != nr.EXAMPLE
     readings.write_text(text, encoding="utf-8")
     res = CliRunner().invoke(cli, ["noise-readings", str(SCENARIOS / "wren-corner.toml"), str(readings)])
-    assert res.exit_code == 2 and "too large to compute with (an overflow)" in res.output
+    # the reading is refused for what it is now (a rise past what one receiver shows), before any computation
+    assert res.exit_code == 2 and "reading[1]: antenna_db = 1e+308 and load_db = -120.0: a rise of" in res.output
+    # and an overflow elsewhere is still said as such, not as "failed: (34, 'Numerical result out of range')"
+    from snrgain.cli.options import handle_errors
+
+    @handle_errors
+    def overflowing():
+        raise OverflowError(34, "Numerical result out of range")
+
+    with pytest.raises(SystemExit) as stop:
+        overflowing()
+    assert stop.value.code == 2
+    assert "too large to compute with (an overflow)" in capsys.readouterr().err

@@ -173,16 +173,47 @@ def test_a_source_far_off_is_heard_as_its_pattern_says(spec):
     assert 10 * np.log10(got / gv[0]) == pytest.approx(0.0, abs=0.1)
 
 
-def test_a_copy_rank_refuses_is_said_and_kept(tmp_path):
-    # The source lands on a candidate of the scenario (rank needs a placed source clear of every antenna): the copy
-    # is written as fitted, and locate says rank cannot read it rather than failing or keeping quiet.
+def test_a_copy_check_refuses_is_not_written(tmp_path):
+    # The source lands on a candidate of the scenario (a placed source must stand 1 m or more from every antenna):
+    # the copy was written all the same, with a warning, and `check` of it then failed.  Now the copy is loaded
+    # before it is written: the fit is printed, nothing is written (nor the plot), and the command exits 1 (the fit's
+    # result cannot be written: no bad input), naming the antenna and where the readings put the source.
     base = _scenario() + '\n[[candidate]]\nname = "shed vertical"\n' + VERTICAL + "position = [109.4, -49.3]\n"
     (tmp_path / "copse.toml").write_text(base)
-    rf, copy = tmp_path / "readings.toml", tmp_path / "copy.toml"
+    rf, copy, png = tmp_path / "readings.toml", tmp_path / "copy.toml", tmp_path / "dir.png"
     rf.write_text(_readings())
-    args = ["locate", str(rf), "--scenario", str(tmp_path / "copse.toml"), "--write", str(copy), "--format", "json"]
-    res = CliRunner().invoke(cli, args)
-    assert res.exit_code == 0 and "Traceback" not in res.output
+    args = ["locate", str(rf), "--scenario", str(tmp_path / "copse.toml"), "--write", str(copy), "--plot", str(png)]
+    for fmt in ("table", "json"):
+        res = CliRunner().invoke(cli, [*args, "--format", fmt])
+        assert res.exit_code == 1 and "Traceback" not in res.output
+        assert not copy.exists() and not png.exists()
+        assert f"snrgain: --write: the copy, loaded as check and rank load it, is refused:\n{copy}: noise.local" in (
+            res.stderr
+        )
+        assert 'the source stands 0.00 m from candidate 6 ("shed vertical"); place it at least 1 m away' in res.stderr
+        assert "'located source' stands where the fit puts it: 120 m from the reading point [0 m, 0 m]" in res.stderr
+        assert res.stderr.rstrip().endswith("no copy written, nor the plot")
     data = json.loads(res.stdout)
-    assert data["copy_check"] is None and "shed vertical" in data["copy_check_error"]
-    assert f"warning: rank cannot read the copy: {copy}: noise.local" in res.stderr and copy.exists()
+    assert data["ok"] and data["written"] is None and "shed vertical" in data["not_written_because"]
+    assert "plot" not in data and "written_sources" not in data
+
+
+def test_readings_of_another_band_are_not_copied(tmp_path):
+    # Readings at 3.55 MHz were written into a 7.1 MHz scenario as its Fa there, with a warning and exit 0; as
+    # noise-readings leaves out a reading off the band, the copy is refused before the fit, naming both frequencies.
+    rf, base, copy = tmp_path / "readings.toml", tmp_path / "copse.toml", tmp_path / "copy.toml"
+    rf.write_text(_readings())
+    base.write_text(_scenario(frequency="7.1 MHz"))
+    res = CliRunner().invoke(cli, ["locate", str(rf), "--scenario", str(base), "--write", str(copy)])
+    assert res.exit_code == 2 and "Traceback" not in res.output and not copy.exists()
+    assert "warning" not in res.stderr and "fit converged" not in res.stdout  # refused before the fit
+    assert "the readings were taken at 3.55 MHz and the scenario listens at 7.1 MHz (40m)" in res.stderr
+    assert "more than 5 % apart" in res.stderr and "no copy written" in res.stderr
+
+
+def test_a_reading_speaks_for_its_own_amateur_band_or_within_5_percent():
+    from snrgain.tools.noisereadings import on_band
+
+    assert on_band(1.99e6, 1.83e6) and on_band(3.8e6, 3.55e6)  # one band, more than 5 % apart
+    assert on_band(2.05e6, 1.96e6) and not on_band(2.07e6, 1.96e6)  # off the band: 5 % either way
+    assert not on_band(7.1e6, 1.83e6)

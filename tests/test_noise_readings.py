@@ -187,6 +187,22 @@ def test_cli_example_fits_and_writes_a_copy_that_ranks(tmp_path):
         ('antenna = "TX vertical"\nantenna_db = -90\nload_db = -110', "reading[1].frequency", "missing"),
         ('antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = -90', "reading[1]", "antenna_db and load_db"),
         ('antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = -90\nload_db = -80\n', "reading[1]", "no rise"),
+        # a rise of 320 dB was taken (T_A 9e35 K); nan was refused without its value or what is allowed
+        (
+            'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = 200\nload_db = -120\n',
+            "reading[1]: antenna_db = 200 and load_db = -120: a rise of 320 dB over the load",
+            "a rise lies above 0 and at most 100 dB",
+        ),
+        (
+            'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = nan\nload_db = -120\n',
+            "reading[1].antenna_db: the receiver's output noise with the antenna: a finite number of dB",
+            "in the same dB scale as load_db; got nan",
+        ),
+        (
+            'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nantenna_db = -20\nload_db = "-inf"\n',
+            "reading[1].load_db: the receiver's output noise with the matched load",
+            'got "-inf"',
+        ),
         (
             'antenna = "TX vertical"\nfrequency = "1.83 MHz"\nbandwidth = "2 kHz"\ns_meter = "S4"\nantenna_db = -1',
             "reading[1]",
@@ -326,3 +342,20 @@ def test_write_of_an_undetermined_level_prints_the_readings_writes_nothing_and_e
     d = json.loads(out.stdout)
     assert out.exit_code == 1 and not dest.exists() and d["determined"] is False and d["written"] is None
     assert d["not_written_because"].startswith("the readings do not fix the man-made level")
+
+
+def test_a_reading_given_twice_is_said(tmp_path):
+    # The example's first reading pasted again at the end counted twice without a word.  It still counts as written
+    # (a reading taken again within the minute can read the same), and a note says it weighs twice.
+    first = nr.EXAMPLE.split("[[reading]]")[1].split("# load_temperature")[0]
+    (tmp_path / "r.toml").write_text(nr.EXAMPLE + "\n[[reading]]" + first)
+    out = CliRunner().invoke(cli, ["noise-readings", WREN, str(tmp_path / "r.toml"), "--format", "json"])
+    assert out.exit_code == 0, out.output
+    notes = [n for n in json.loads(out.stdout)["notes"] if "same reading" in n]
+    assert notes == [
+        "readings 1 and 6 are the same reading (time, antenna, frequency and values alike): each counts in the fit, "
+        "so it weighs twice; remove the copies if read once"
+    ]
+    (tmp_path / "once.toml").write_text(nr.EXAMPLE)
+    alone = CliRunner().invoke(cli, ["noise-readings", WREN, str(tmp_path / "once.toml")])
+    assert alone.exit_code == 0 and "same reading" not in alone.output

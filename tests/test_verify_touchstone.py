@@ -118,6 +118,23 @@ def test_bad_sweeps_are_named(tmp_path):
 
 
 @pytest.mark.parametrize(
+    "text, said",
+    [
+        ("", "empty, not a Touchstone sweep: a 1-port file (.s1p) holds its option line"),
+        ("  \n\n", "empty, not a Touchstone sweep"),
+        ("! saved by an analyser\n!\n", "only comments, not a Touchstone sweep"),
+    ],
+)
+def test_an_empty_sweep_is_said_in_the_projects_words(tmp_path, text, said):
+    # An empty .s1p gave scikit-rf's "Ran out of input".
+    path = tmp_path / "open.s1p"
+    path.write_text(text)
+    with pytest.raises(ts.SweepError) as err:
+        ts.read_sweep(path)
+    assert str(err.value).startswith(f"{path}: {said}") and "Ran out" not in str(err.value)
+
+
+@pytest.mark.parametrize(
     "body, said",
     [
         ("1.0 0.1 0.2\n1.1 nan 0.2\n1.2 0.3 0.1\n", "line 3: '1.1 nan 0.2' holds a value that is not a finite number"),

@@ -11,6 +11,7 @@ from snrgain.cli.options import (
     EXIT_FAILURE,
     FiniteRange,
     check_output,
+    copy_refused,
     emit_json,
     fail,
     handle_errors,
@@ -72,7 +73,10 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     readings were taken) and distance in the file (one per source, in the order the fit numbers them), each source
     is fitted and written to the scenario as a placed one, heard as rank hears it (a short vertical dipole near the
     ground; its elevation held), and the output says which distance each got; without, as a point at its bearing.
-    The copy is read back as rank reads it, and a reading it gives more than 1 dB off the fit is said.  A fit
+    Readings off every band of the scenario (outside its amateur band and more than 5 % from its frequency) are not
+    copied.  The copy is loaded as check loads it before it is written: one check refuses (a source within 1 m of an
+    antenna) is not written, nor the plot, and the command exits 1 with the reason.  The copy is read back as rank
+    reads it, and a reading it gives more than 1 dB off the fit is said.  A fit
     that finds no direction is reported with its cause and exits 1, writing no file (no plot, no copy).  See
     --example for the file.
     """
@@ -94,6 +98,12 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
     check_output(write_to, overwrite=overwrite, replaces=scenario)
     data = loc.load_readings(Path(readings))
     loc.check_distances(data, sources, readings)
+    if scenario is not None:  # readings of another band cannot be copied into this one: said before the fit
+        from snrgain.tools.locatecheck import off_every_band
+
+        off = off_every_band(read_scenario_text(scenario), data.freq_hz)
+        if off is not None:
+            raise ValueError(f"--write: {readings} into {scenario}: {off}; no copy written")
     if fit_elevation and data.near is not None:
         raise click.BadParameter(f"{readings}: {loc.NEAR_ELEVATION_HELD}", param_hint="--fit-elevation")
     try:
@@ -123,9 +133,9 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
         )
         if copy is not None:
             out.update(copy)
-        if plot is not None:
+        if plot is not None and not out.get("not_written_because"):
             out["plot"] = plot
-        if scenario is not None:
+        if scenario is not None and not out.get("not_written_because"):
             out["written"] = write_to
             out["written_sources"] = [
                 vars(p) for p in loc.placements(res, at_m=data.at_m, distances_m=data.distances_m, name=name)
@@ -136,6 +146,9 @@ def locate(readings, example, sources, fit_elevation, elevation, plot, name, sid
         click.echo("\n".join(_lines(res, out, side, data.length_unit)))
     if not res.ok:
         fail("the fit failed (" + res.message.split(";")[0] + "); no file written", EXIT_FAILURE)
+    if out.get("not_written_because"):  # the fit is said; the copy asked for (and the plot) is not written
+        nor = ", nor the plot" if plot else ""
+        fail(f"--write: {out['not_written_because']}\nno copy written{nor}", EXIT_FAILURE)
 
 
 def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side=None) -> None:
@@ -159,6 +172,9 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side
             length_unit=data.length_unit,
             unsaid=unsaid,
         )
+        refused = copy_refused(text, scenario=scenario, write_to=write_to)
+        if refused is not None:  # a copy check and rank would refuse: no copy, and no plot either
+            return {"written": None, "not_written_because": _refusal(refused, res, data, name)}
     created = None
     if plot is not None:
         from snrgain.outputs import plots
@@ -180,6 +196,24 @@ def _write_outputs(res, data, *, plot, scenario, write_to, name, overwrite, side
     return _checked(text, res, data, scenario=scenario, write_to=write_to, name=name)
 
 
+def _refusal(exc, res, data, name) -> str:
+    """Why the copy is not written: the problems ``check`` finds in it, and where a located source is among them,
+    where the fit put it (the readings file's reading point and distance)."""
+    from snrgain.tools import locate as loc
+    from snrgain.units import length_said
+
+    out = f"the copy, loaded as check and rank load it, is refused:\n{exc}"
+    for p in loc.placements(res, at_m=data.at_m, distances_m=data.distances_m, name=name):
+        if p.distance_m is not None and any(f"({p.name!r})" in m or f'("{p.name}")' in w for w, m in exc.problems):
+            e, n = data.at_m
+            out += (
+                f"\n{p.name!r} stands where the fit puts it: {length_said(p.distance_m, data.length_unit)} from the "
+                f"reading point [{e:g} m, {n:g} m] toward {p.bearing_deg:.0f} deg (the readings file's at and "
+                "distance); check those"
+            )
+    return out
+
+
 def _checked(text, res, data, *, scenario, write_to, name) -> dict:
     """The copy read back as rank reads it (snrgain.tools.locatecheck): each reading's level from it beside the
     fitted one, a warning on stderr where any lies further apart than CHECK_TOLERANCE_DB; JSON-ready."""
@@ -190,8 +224,8 @@ def _checked(text, res, data, *, scenario, write_to, name) -> dict:
     names = loc.source_names(res, name)
     try:
         check = chk.copy_levels(text, res, data, names, base_dir=Path(scenario).resolve().parent, label=write_to)
-    except (ScenarioError, ValueError) as exc:  # a copy rank refuses: said, the copy kept for the user to mend
-        click.echo(f"warning: rank cannot read the copy: {exc}", err=True)
+    except (ScenarioError, ValueError) as exc:  # the copy loads (copy_refused) but not at the readings' frequency
+        click.echo(f"warning: the copy could not be read back at {data.freq_hz / 1e6:g} MHz: {exc}", err=True)
         return {"copy_check": None, "copy_check_error": str(exc)}
     warning = chk.said(check, res.placed)
     if warning is not None:
@@ -247,7 +281,7 @@ def _lines(res, out, side=None, length_unit="m") -> list[str]:
                 )
     if "plot" in out:
         lines.append(f"  wrote {out['plot']}")
-    if "written" in out:
+    if out.get("written"):
         lines.append(f"  wrote {out['written']}")
         for i, p in enumerate(out["written_sources"]):
             if p["distance_m"] is None:

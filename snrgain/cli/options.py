@@ -285,18 +285,50 @@ def readings_preamble(*, example_text: str, example: bool, readings, scenario, w
     if (scenario is None) != (write_to is None):
         raise click.UsageError("--scenario and --write go together")
     if scenario is not None:  # a copy of a scenario that does not load would not load either: said before any work
-        from snrgain.errors import ScenarioError
-        from snrgain.scenario import load
-        from snrgain.scenario.p372dir import NO_FOLDER_TEXT
+        from snrgain.scenario import read_source
 
-        for band in band_names(scenario) or [None]:  # a scenario of several bands: each band loads
-            try:
-                load(Path(scenario), band=band)
-            except ScenarioError as exc:  # but P.372's data, which this copy does not touch, may be fetched later
-                rest = [(p, m) for p, m in exc.problems if not m.startswith(NO_FOLDER_TEXT)]
-                if rest:
-                    raise ScenarioError(exc.source, rest) from None
+        data, label, base_dir = read_source(Path(scenario))
+        loads_as_checked(data, base_dir=base_dir, label=label)
     return False
+
+
+def loads_as_checked(data: dict, *, base_dir, label: str) -> None:
+    """Load a scenario's tables as ``check`` does, each band of a file of several; ScenarioError naming every
+    problem but a missing P.372 data folder (a scenario copy does not touch it, and the data may be fetched later)."""
+    import copy
+
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import load, split_bands
+    from snrgain.scenario.bands import band_problems
+    from snrgain.scenario.p372dir import NO_FOLDER_TEXT
+
+    names = [name for name, _ in split_bands(data, label)] if isinstance(data.get("band"), list) else [None]
+    found = {}
+    for band in names:
+        try:
+            load(copy.deepcopy(data), base_dir=base_dir, label=label, band=band)
+        except ScenarioError as exc:
+            rest = [(p, m) for p, m in exc.problems if not m.startswith(NO_FOLDER_TEXT)]
+            if rest:
+                found[band] = rest
+    if found:
+        problems = found[None] if names == [None] else band_problems(found, len(names))
+        raise ScenarioError(label, problems)
+
+
+def copy_refused(text: str, *, scenario, write_to):
+    """The ScenarioError ``check`` would give the scenario copy ``text`` written at ``write_to`` (its paths made
+    relative to that folder, as :func:`write_output` writes them), or None where it loads: a copy is loaded before
+    it is written, so no command writes one that ``check`` and ``rank`` refuse."""
+    from snrgain.errors import ScenarioError
+    from snrgain.scenario import parse_toml
+
+    content, _ = rebased_paths(text, scenario, write_to)
+    try:
+        loads_as_checked(parse_toml(content, str(write_to)), base_dir=Path(write_to).resolve().parent, label=write_to)
+    except ScenarioError as exc:
+        return exc
+    return None
 
 
 def read_scenario_text(path) -> str:

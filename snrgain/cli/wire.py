@@ -41,7 +41,11 @@ class WireFamily(click.Choice):
 )
 @click.option("--gauge", type=click.IntRange(-3, 40), default=None, help="Wire gauge, AWG (default 14).")
 @click.option("--diameter", default=None, help="Wire diameter with unit instead of --gauge, e.g. '1.6 mm'.")
-@click.option("--ground", default="moist loam", show_default=True, help="Named ground (see README) or 'perfect'.")
+@click.option(
+    "--ground",
+    default=None,
+    help="Named ground (see README) or 'perfect'.  [default: moist loam, unless --conductivity]",
+)
 @click.option("--conductivity", default=None, help="Ground conductivity instead of --ground, e.g. '5 mS/m'.")
 @click.option("--permittivity", type=FiniteRange(1, 100), default=None, help="Ground relative permittivity.")
 @click.option(

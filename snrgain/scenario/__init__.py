@@ -17,7 +17,7 @@ freeze a section's values from the section itself; ``connected`` names the anten
 from snrgain.antennas import SpecError
 from snrgain.errors import ScenarioError
 
-from .antennas import PlaceSection, antenna_from_table
+from .antennas import PlaceSection, antenna_from_table, inject_defaults
 from .band import Band, BandSection
 from .bands import load_bands, one_band, split_bands
 from .compute import Compute, PlanSection, Uncertainty, UncertaintySection
@@ -93,6 +93,7 @@ __all__ = [
     "chain_from_section",
     "connected",
     "decode_text",
+    "inject_defaults",
     "load",
     "parse_toml",
     "read_source",

@@ -178,6 +178,7 @@ def load_readings(path: str | Path) -> NoiseReadings:
     from snrgain.antennas.base import SpecError, build, item_label
     from snrgain.errors import ReadingsError
     from snrgain.fields import Bearing, GroundField, PlanPoint, PowerDbm, StrictModel, decibels, quantity
+    from snrgain.scenario import inject_defaults
     from snrgain.tools.readings import validate
     from snrgain.units import length_unit_written, lengths_said_in
 
@@ -198,6 +199,7 @@ def load_readings(path: str | Path) -> NoiseReadings:
         reading: list[ReadingEntry] = Field(min_length=1, max_length=1000)
 
     data = read_toml(path)
+    folder = Path(path).resolve().parent
     problems, readings = [], []
     # Lengths are quoted in the unit the file writes them in: its place and distance, else its other lengths.
     unit = length_unit_written([data.get("at"), data.get("distance")]) or length_unit_written(data) or "m"
@@ -222,8 +224,20 @@ def load_readings(path: str | Path) -> NoiseReadings:
     for i, r in enumerate(rf.reading):
         if r.antenna not in rf.antenna:
             continue
-        spec = {"ground": data.get("ground", "moist loam"), **rf.antenna[r.antenna]}
+        # the file's ground under the families that stand on one (a pattern table keeps its own), a pattern
+        # file found from the readings file's folder, as a scenario's antenna tables are read
+        spec = inject_defaults(rf.antenna[r.antenna], site_ground=data.get("ground", "moist loam"), base_dir=folder)
         family = FAMILIES.get(spec.get("family")) if isinstance(spec.get("family"), str) else None
+        if family is not None and family.build.composite:  # made of a scenario's antennas: a readings file has none
+            takes = ", ".join(k for k, f in FAMILIES.items() if f.build.buildable and not f.build.composite)
+            problems.append(
+                (
+                    f"antenna.{r.antenna}.family",
+                    f"a {spec['family']} is made of other antennas of a scenario, which a readings file does not "
+                    f"have; read on one antenna of its own, of the families {takes}",
+                )
+            )
+            continue
         turns = family is not None and "bearing" in family.params.model_fields
         where = item_label("reading", i, None)
         if r.bearing is not None and family is not None and not turns:

@@ -3,7 +3,9 @@
 The copy describes each source as the fit modelled it (:func:`snrgain.tools.locate.scenario_blocks`).  What the fit
 took that no scenario key can carry is said in the copy's comment and on stderr (:func:`unsaid`): the readings'
 frequency where the scenario's band is another one (a source's Fa changes with frequency), and for a placed source
-the readings' soil where the scenario's site stands on another.
+the readings' soil where the scenario's site stands on another.  Readings off every band of the scenario (outside
+its amateur band and more than 5 % from its frequency, as noise-readings leaves such readings out) are not copied
+at all (:func:`off_every_band`).
 
 :func:`copy_levels` then reads the copy as a scenario and works out, through rank's own stages (the sky builder and
 :func:`snrgain.model.products.products`, placed sources heard where each antenna stands), the power each fitted
@@ -103,6 +105,25 @@ def unsaid(text: str, res, data) -> list[str]:
                 f"site's ({said})"
             )
     return out
+
+
+def off_every_band(text: str, freq_hz: float) -> str | None:
+    """Why the readings, taken at ``freq_hz`` [Hz], cannot be copied into the scenario ``text``: they lie off every
+    band of it, as ``noise-readings`` leaves such readings out (:func:`snrgain.tools.noisereadings.on_band`), so the
+    copy would give rank a source's Fa read on another band; None where one band takes them."""
+    from snrgain.tools.logs import band_of_hz
+    from snrgain.tools.noisereadings import OFF_BAND_FRACTION, on_band
+
+    bands = _band_frequencies(tomllib.loads(text))
+    if not bands or any(on_band(freq_hz, f) for f in bands.values()):
+        return None
+    listed = " and ".join(f"{f / 1e6:g} MHz ({band_of_hz(f)})" for f in bands.values())
+    return (
+        f"the readings were taken at {freq_hz / 1e6:g} MHz and the scenario listens at {listed}: more than "
+        f"{OFF_BAND_FRACTION * 100:g} % apart and not in one amateur band, so the copy would give rank a source's "
+        f"level read at {freq_hz / 1e6:g} MHz as its level there (man-made noise's Fa falls some 28 dB a decade); "
+        "read the source on the scenario's band, or copy it into a scenario of the readings' band"
+    )
 
 
 def _band_frequencies(parsed: dict) -> dict[str | None, float]:

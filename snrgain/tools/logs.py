@@ -377,8 +377,9 @@ _LOG_HINT = "give the decoder's ALL-decodes text log or a CSV of its decodes (sn
 
 
 def read_decodes(path, label: str, problems: Problems) -> pd.DataFrame:
-    """A decode log or CSV (told apart by its first line); ValueError naming the file for one that is not text or
-    has lines and not one decode among them (a wrong file given: its lines' reasons alone would pass unseen)."""
+    """A decode log or CSV (told apart by its first line); ValueError naming the file for one that is not text, is
+    empty (or blank lines and comments alone), or has lines and not one decode among them (a wrong file given: its
+    lines' reasons alone would pass unseen)."""
     text = read_text(path)
     nul, bad = text.find("\0"), text.count("\ufffd")
     if nul >= 0 or bad > 0.1 * len(text):  # a few bad bytes fail their own lines; this many are no text log
@@ -393,12 +394,12 @@ def read_decodes(path, label: str, problems: Problems) -> pd.DataFrame:
         raise ValueError(f"{path} (log {label}): {str(exc).removeprefix(label + ': ')}") from None
     if df.empty:
         lines = sum(1 for s in text.splitlines() if s.strip() and not s.lstrip().startswith("#"))
-        if lines:
-            why = [r for r, v in problems.by_reason.items() if any(lbl == label for lbl, _ in v)]
-            because = f" ({'; '.join(why[:3])})" if why else ""
-            raise ValueError(
-                f"{path} (log {label}): none of its {lines:,} lines reads as a decode{because}; {_LOG_HINT}"
-            )
+        if not lines:  # nothing to pair: else "0 pairs" would blame the other log's decodes as unpaired
+            what = "empty" if not text else "only blank lines" if not text.strip() else "only blank lines and comments"
+            raise ValueError(f"{path} (log {label}): {what}, not one decode; {_LOG_HINT}")
+        why = [r for r, v in problems.by_reason.items() if any(lbl == label for lbl, _ in v)]
+        because = f" ({'; '.join(why[:3])})" if why else ""
+        raise ValueError(f"{path} (log {label}): none of its {lines:,} lines reads as a decode{because}; {_LOG_HINT}")
     return df
 
 

@@ -56,6 +56,14 @@ from snrgain.records import record
 
 SMALL_RISE_DB = 3.0
 """Below this rise over the load a reading mostly measures the receiver (common practice)."""
+MAX_RISE_DB = 100.0
+"""The largest rise over a matched load a reading may give [dB].  Both levels are read on one receiver at one gain
+setting, the load's at the receiver's own noise floor: trade tests of receivers quote blocking dynamic ranges (from
+the noise floor in a 500 Hz bandwidth to 1 dB of compression by one signal) of some 100 to 150 dB for the best, and
+a noise that far over the floor in the reading's bandwidth fills the whole front end's passband alike (a signal does
+not), so the receiver compresses well before.  Nor does the sky give more at the low bands: the rise is at most the
+antenna's noise over the load's 290 K, and ITU-R P.372's noisiest atmospheric noise at 1.8 MHz (its upper decile,
+the stormiest place and season) lies some 103 dB over kT0b."""
 EDGE_DB = 0.5
 """A fit within this of an end of the schema's offset range is taken as stopped there by the range (the search's
 last step is 0.01 dB, so a fit inside the range by more than half a grid cell found a minimum of its own)."""
@@ -63,6 +71,11 @@ READING_FLOOR_DB = 1.0
 """The least uncertainty of one noise reading [dB]: a receiver's level or S-meter reading over a minute of noise
 (common practice); the fitted offset's tolerance is never narrower than this one's over the readings'
 sensitivities."""
+OFF_BAND_FRACTION = 0.05
+"""A reading outside the scenario's amateur band and further than this from its frequency (as a ratio, either way)
+speaks for another frequency: man-made noise's Fa falls some 28 dB a decade (ITU-R P.372 Table 1's slopes), so 5 %
+moves it by about 0.6 dB, near one reading's least uncertainty (READING_FLOOR_DB); within the band, the level read
+is the band's."""
 MAX_TOLERANCE_DB = 10.0
 """A wider 90 % half-width than this and the fit is not a result: P.372's environment curves lie 4-14 dB apart at
 the low bands (city, residential, rural, quiet rural; ITU-R P.372 Table 2), so +-10 dB spans two or more of them
@@ -190,6 +203,47 @@ def _kelvin(value) -> float | None:
     return x if 1.0 <= x <= 400.0 else None
 
 
+def _rise_db(r: dict, where: str, problems: list) -> float | None:
+    """A reading's rise over the load [dB] from its antenna_db and load_db, or None with the problems added (each
+    key's value and what it takes; a rise of none, or past :data:`MAX_RISE_DB`, with both values)."""
+    values = {}
+    for key, other, what in (("antenna_db", "load_db", "the antenna"), ("load_db", "antenna_db", "the matched load")):
+        v = r.get(key)
+        try:  # a number, or text of one, as before
+            x = float(v) if isinstance(v, (int, float, str)) and not isinstance(v, bool) else float("nan")
+        except ValueError:
+            x = float("nan")
+        if key not in r:
+            problems.append((f"{where}.{key}", "missing: a rise over a load gives antenna_db and load_db both"))
+        elif not np.isfinite(x):
+            problems.append(
+                (
+                    f"{where}.{key}",
+                    f"the receiver's output noise with {what}: a finite number of dB, in the same dB scale as {other}; "
+                    f"got {toml_repr(v)}",
+                )
+            )
+        else:
+            values[key] = x
+    if len(values) < 2:
+        return None
+    rise = values["antenna_db"] - values["load_db"]
+    given = f"antenna_db = {toml_repr(r['antenna_db'])} and load_db = {toml_repr(r['load_db'])}"
+    if rise <= 0:
+        problems.append(
+            (where, f"{given}: the antenna reads {rise:+.1f} dB against the load: no rise (check the connections)")
+        )
+    elif rise > MAX_RISE_DB:
+        problems.append(
+            (
+                where,
+                f"{given}: a rise of {rise:g} dB over the load; a rise lies above 0 and at most {MAX_RISE_DB:g} dB "
+                "(both levels read on one receiver at one gain setting, in one dB scale: check the scale and values)",
+            )
+        )
+    return rise if 0 < rise <= MAX_RISE_DB else None
+
+
 def load_readings(path) -> list[Reading]:
     """Read a noise-readings file (:data:`EXAMPLE`); ReadingsError naming each problem's reading and key."""
     from snrgain.errors import ReadingsError
@@ -259,17 +313,7 @@ def load_readings(path) -> list[Reading]:
         if has_rise == ("s_meter" in r):
             problems.append((where, "give either antenna_db and load_db (a rise over a matched load) or s_meter"))
         elif has_rise:
-            try:
-                a_db, l_db = float(r["antenna_db"]), float(r["load_db"])
-                if not (np.isfinite(a_db) and np.isfinite(l_db)):
-                    raise ValueError
-                rise = a_db - l_db
-                if rise <= 0:
-                    problems.append(
-                        (where, f"the antenna reads {rise:+.1f} dB against the load: no rise (check the connections)")
-                    )
-            except (KeyError, ValueError, TypeError):
-                problems.append((where, "antenna_db and load_db both, as numbers in the same dB scale"))
+            rise = _rise_db(r, where, problems)
             load_k = _kelvin(r.get("load_temperature", T0_K))
             if load_k is None:
                 problems.append(
@@ -494,6 +538,36 @@ def antenna_temperature(r: Reading, t_e: float, gain: float) -> float:
     return p_w / (BOLTZMANN * r.bandwidth_hz * gain) - t_e
 
 
+def on_band(freq_hz: float, band_hz: float) -> bool:
+    """Whether a level read at ``freq_hz`` speaks for a scenario band at ``band_hz`` [Hz]: within its amateur band,
+    or within :data:`OFF_BAND_FRACTION` of its frequency."""
+    from snrgain.tools import logs
+
+    if logs.band_of_hz(freq_hz) == logs.band_of_hz(band_hz) and logs.band_of_hz(band_hz) in logs.BANDS_MHZ:
+        return True
+    return abs(np.log(freq_hz / band_hz)) <= np.log1p(OFF_BAND_FRACTION)
+
+
+def repeated(readings: list[Reading]) -> list[str]:
+    """A note for each reading given more than once alike (time, antenna, frequency, bandwidth and values): each
+    counts in the fit, as written, and the note says so.  Not refused: a reading taken again within the minute can
+    read the same, and the file's author knows which; left unsaid, a copy pasted twice weighs twice unseen."""
+    seen: dict[tuple, list[int]] = {}
+    for r in readings:
+        key = (r.time, r.antenna, r.freq_hz, r.bandwidth_hz, r.rise_db, r.load_k, r.power_dbm, r.s_meter)
+        seen.setdefault(key, []).append(r.index)
+    return [
+        f"readings {', '.join(map(str, same[:-1]))} and {same[-1]} are the same reading (time, antenna, frequency and "
+        f"values alike): each counts in the fit, so it weighs {_times(len(same))}; remove the copies if read once"
+        for same in seen.values()
+        if len(same) > 1
+    ]
+
+
+def _times(n: int) -> str:
+    return "twice" if n == 2 else f"{n} times"
+
+
 def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "noise readings") -> NoiseFit:
     """The man-made offset the readings give (the module's note), with their spread; ``label``: the readings' file,
     named in errors."""
@@ -526,9 +600,10 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
             "man_made_fa_db": None,
             "note": "",
         }
-        if logs.band_of_hz(r.freq_hz) != band and abs(np.log(r.freq_hz / freq)) > np.log(1.05):
+        if not on_band(r.freq_hz, freq):
             row["note"] = (
-                f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band}) and more than 5 % from "
+                f"not used: {r.freq_hz / 1e6:g} MHz is outside the scenario's band ({band}) and more than "
+                f"{OFF_BAND_FRACTION * 100:g} % from "
                 f"its {freq / 1e6:g} MHz"
             )
             rows.append(row)
@@ -545,6 +620,7 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
         rows.append(row)
     if not used:
         raise ValueError("no reading lies in the scenario's band (see each reading's note)")
+    notes += repeated(readings)
     _, t_a, other, mm, t_e = (np.array(x) for x in zip(*used))
     measured = 10.0 * np.log10(np.maximum(t_a + t_e, 1e-30))
 

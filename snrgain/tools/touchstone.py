@@ -96,6 +96,12 @@ def read_sweep(path: str | Path) -> Sweep:
         raise SweepError(str(exc)) from None
     text = raw.decode("utf-8", errors="replace")
     _check_reference(p, text)
+    if not _stripped_lines(text):  # the reader's own words for it were "Ran out of input"
+        what = "empty" if not text.strip() else "only comments"
+        raise SweepError(
+            f"{p}: {what}, not a Touchstone sweep: a 1-port file (.s1p) holds its option line (such as '# MHz Z RI "
+            "R 50') and one line per point, the frequency and one complex value"
+        )
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # scikit-rf warns of frequencies out of order; they are sorted below

@@ -37,6 +37,9 @@ PRACTICAL_TURNS = (1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0)
 DEFAULT_HEIGHT = "2.5 m"
 """Height of a wire in the air when none is given (a family with its own default, the BOG, keeps it)."""
 
+DEFAULT_GROUND = "moist loam"
+"""The ground under the wire when neither a named ground nor its constants are given (the scenarios' own default)."""
+
 DEFAULT_ELEVATION_RAD = np.radians(20.0)
 """Elevation of the target along the wire when none is given [rad]: a typical low-band DX arrival angle
 (common practice)."""
@@ -397,7 +400,7 @@ def wire_spec(
     far_ground="20 ohm",
     gauge: int | None = None,
     diameter=None,
-    ground="moist loam",
+    ground=None,
     conductivity=None,
     permittivity=None,
     coax: int = 75,
@@ -410,7 +413,8 @@ def wire_spec(
     Each key goes only to the families whose table takes it (their parameter model says which): the far-end
     keys, ``depth`` (a wire on the ground may be buried), ``termination``.  ``height`` defaults to the family's
     own default where it has one (a BOG's axis 2 cm above the soil; "on soil" rests it on the soil), else to
-    :data:`DEFAULT_HEIGHT`; ``conductivity`` with ``permittivity`` replaces a named ``ground``; the insulation's
+    :data:`DEFAULT_HEIGHT`; ``conductivity`` with ``permittivity`` give the ground in place of a named ``ground``
+    (:data:`DEFAULT_GROUND` where neither is given; both, refused); the insulation's
     thickness and relative permittivity go to a family that takes them (the BOG's).
     """
     if family not in wire_families():
@@ -445,11 +449,13 @@ def wire_spec(
     if diameter is not None:
         spec["diameter"] = diameter
     if conductivity is not None or permittivity is not None:
+        if ground is not None:  # one ground: a named one was dropped without a word
+            raise ValueError(f"give --ground or --conductivity and --permittivity, not both; got --ground {ground!r}")
         if conductivity is None or permittivity is None:
             raise ValueError("conductivity and permittivity go together")
         spec["ground"] = {"conductivity": conductivity, "permittivity": permittivity}
     else:
-        spec["ground"] = ground
+        spec["ground"] = DEFAULT_GROUND if ground is None else ground
     return spec
 
 
