@@ -444,3 +444,47 @@ def test_a_listed_quantity_is_a_number_with_its_unit_in_the_header(tmp_path):
     # one key varied twice is refused though its two columns are named in two units
     twice = CliRunner().invoke(cli, [*args, "--overwrite", "--vary", "Beverage toward Europe: length = 600 ft, 700 ft"])
     assert twice.exit_code == 2 and "the same key is varied twice" in twice.stderr
+
+
+# A list key (time.months, time.utc_hours) takes a bracketed list as one value: "months = [12, 1], [6, 7]" was each
+# wrapped once more ([[12, 1]]) and refused as "time.months 1: expected a whole number; got [12, 1]".
+
+
+def test_a_list_key_takes_bracketed_lists_as_values():
+    v = sw.parse_vary("time: months = [12, 1], [6, 7]")
+    assert v.values == [[12, 1], [6, 7]] and v.column == "time: months" and v.column_values == [[12, 1], [6, 7]]
+    assert sw.parse_vary("time: utc_hours = [0, 2], [4, 6]").values == [[0, 2], [4, 6]]
+    # a bare number beside a list is a list of one, and its cell says so
+    mixed = sw.parse_vary("time: months = [12, 1], 6")
+    assert mixed.values == [[12, 1], [6]] and mixed.column_values == [[12, 1], [6]]
+    # bare numbers alone: one month a design, the column the numbers; a range's months whole, as a file writes them
+    assert sw.parse_vary("time: months = 1, 7").column_values == [1, 7]
+    ranged = sw.parse_vary("time: months = 1 to 3 by 1")
+    assert ranged.values == [[1], [2], [3]] and all(type(m[0]) is int for m in ranged.values)
+    data = sw.apply({"time": {"months": [1]}}, [v], [[12, 1]])
+    assert data["time"]["months"] == [12, 1]
+
+
+@pytest.mark.parametrize(
+    "text, says",
+    [
+        ("time: months = dec, jan", "time.months takes a list of months, and 'dec' is neither one month nor a list"),
+        ("time: utc_hours = 0 2, [4, 6]", "write one hour a design (0, 12) or each design's hours in brackets"),
+        ("time: months = [12 1]", "cannot read '[12 1]' as a list: write it as in the scenario, e.g. [12, 1]"),
+    ],
+)
+def test_a_list_key_given_what_is_no_list_is_told_both_forms(text, says):
+    with pytest.raises(sw.VaryError) as info:
+        sw.parse_vary(text)
+    assert says in str(info.value) and text in str(info.value)
+
+
+def test_a_sweep_of_month_lists_writes_them_as_the_scenario_does(tmp_path):
+    out = tmp_path / "m.csv"
+    res = CliRunner().invoke(cli, ["sweep", str(DEMO), "--vary", "time: months = [12, 1], [6, 7]", "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    rows = list(csv.DictReader(out.open()))
+    assert [r["time: months"] for r in rows if r["design"] == "0"][0] == "[12, 1]"
+    assert {r["time: months"] for r in rows} == {"[12, 1]", "[6, 7]"}
+    # a position of lengths is written as the scenario writes it, not as Python's repr (['0 m', ...])
+    assert sw.csv_cell(["0 m", "150 m"]) == '["0 m", "150 m"]' and sw.csv_cell([0, 40]) == "[0, 40]"

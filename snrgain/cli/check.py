@@ -67,13 +67,19 @@ def _summary(sc, geometry: bool = True) -> None:
         f"  {sc.freq_hz / 1e6:g} MHz, {sc.bandwidth_hz:g} Hz; {len(sc.times.months)} month(s) x "
         f"{len(sc.times.utc_hours)} hour(s)"
     )
+    from snrgain.decide.arrival import target_notices
+    from snrgain.outputs.messages import hops_text, notice_text
+
     for t, tt in zip(sc.targets, sc.target_times):
-        extra = f", {t.distance_m / 1e3:.0f} km, {t.hops[0]}-{t.hops[1]} hops" if t.distance_m else ""
+        extra = f", {t.distance_m / 1e3:.0f} km, {hops_text(t.hops)}" if t.distance_m else ""
         when = f"months {', '.join(str(m) for m in tt.months)}; UTC {', '.join(f'{h:g}' for h in tt.utc_hours)}"
+        lo, hi = (f"{np.degrees(x):.1f}" for x in (t.elevation_rad.min(), t.elevation_rad.max()))
         click.echo(
             f"  target {t.name!r}: bearing {np.degrees(t.bearing_rad):.1f} deg, elevation "
-            f"{np.degrees(t.elevation_rad.min()):.1f}-{np.degrees(t.elevation_rad.max()):.1f} deg{extra}; {when}"
+            f"{lo if lo == hi else f'{lo}-{hi}'} deg{extra}; {when}"
         )
+    for n in target_notices(sc):
+        click.echo(f"  rank would warn: {notice_text(n)}")
     click.echo(f"  reference: {sc.reference.name} ({sc.reference.family})")
     for a in sc.candidates:
         click.echo(f"  candidate: {a.name} ({a.family})")

@@ -56,6 +56,13 @@ allow_long_option = click.option(
     help="Run a scenario whose estimated cost passes the limits (300 s or 4 GB); without it such a scenario is "
     "refused before any work, with the estimate and what would fit.",
 )
+report_allow_long_option = click.option(
+    "--allow-long",
+    is_flag=True,
+    help="Make a report whose estimated cost passes the limits: the evaluation's (300 s or 4 GB) or the figures' "
+    "(60 s of drawing or a 30 MB page, counted from the targets and antennas each figure shows); without it such a "
+    "report is refused before any work, with the estimate and what would fit.",
+)
 nside_option = click.option(
     "--nside",
     type=click.Choice(["8", "16", "32", "64", "128"]),

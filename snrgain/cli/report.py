@@ -16,6 +16,7 @@ from snrgain.cli.options import (
     p372_dir_option,
     progress,
     reference_option,
+    report_allow_long_option,
     scenario_argument,
     write_output,
 )
@@ -31,7 +32,7 @@ from snrgain.cli.options import (
     help="The HTML file to write (whole or not at all).",
 )
 @overwrite_option
-@allow_long_option
+@report_allow_long_option
 @nside_option
 @p372_dir_option
 @reference_option
@@ -56,6 +57,7 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
     with Drawer("svg", modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"report: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
+            _sized(sc, plan, allow_long)
             early = _Ahead(drawer, "svg", rep.SVG_OPTIONS, plots.FIGURES, sc, plan)
             results = _evaluated(sc, allow_long, observe=early)
         said, apart = results.warnings_apart()
@@ -73,6 +75,21 @@ def report(scenario, output, overwrite, allow_long, nside, p372_dir, reference, 
         with progress(None, "report: drawing the figures"):
             html = rep.render(results, plan=plan, draw=draw)
     write_output(output, html, overwrite=overwrite)
+
+
+def _sized(sc, plan, allow_long: bool) -> None:
+    """Refuse a report past its limits unless ``allow_long`` (snrgain.outputs.reportsize), before any work; say on
+    stderr what a long one will draw."""
+    from snrgain.outputs import plots
+    from snrgain.outputs.reportsize import NOTE_SECONDS, check_report_size, size_words
+
+    s = check_report_size(sc, plots.has_site_plan(None, plan=plan), allow_long=allow_long)
+    if s.seconds >= NOTE_SECONDS:
+        click.echo(
+            f"report: {s.figures} figures to draw ({size_words(s)}), about {s.seconds:.0f} s and "
+            f"{s.page_bytes / 1e6:.0f} MB of page",
+            err=True,
+        )
 
 
 _RESULT_MODULES = (

@@ -124,6 +124,9 @@ def notices(sc: Scenario, antennas: list[AntennaResult], plan=None, skies=None) 
     out.extend(reading_notices(sc))
     out.extend(feed_line_notices(antennas))
     out.extend(man_made_extrapolated(sc.freq_hz, sc.noise.man_made is not None))
+    from snrgain.decide.arrival import target_notices
+
+    out.extend(target_notices(sc))
     return by_switched_antenna(sc, out, None if plan is None else plan.states)
 
 

@@ -19,9 +19,11 @@ class Notice:
     Codes: ``receiver-limited`` (values: worst_margin_db, margin_target_db, max_snr_loss_db, preamp_gain_db,
     preamp_position; where no gain reaches the target, best_gain_db, best_position, best_max_snr_loss_db: the
     preamplifier that comes closest, snrgain.physics.chain.best_effort_preamp), ``man-made-extrapolated``
-    (freq_hz, lowest_hz), ``lobe-away-from-bearing`` (bearing_deg, lobe_deg, off_deg, steering, auto_for: an array whose
-    main lobe points more than 90 deg away from its bearing; steering "given" or "auto", auto_for what the automatic
-    steering sets it for, and with "snr" also composite and sources: the local sources it was set under),
+    (freq_hz, lowest_hz), ``target-near-vertical`` (target, distance_km, elevation_deg, bearing_deg: a target by place
+    that arrives by one hop from nearly overhead, NVIS; snrgain.decide.arrival), ``lobe-away-from-bearing``
+    (bearing_deg, lobe_deg, off_deg, steering, auto_for: an array whose main lobe points more than 90 deg away from its
+    bearing; steering "given" or "auto", auto_for what the automatic steering sets it for, and with "snr" also
+    composite and sources: the local sources it was set under),
     ``far-ground-too-high`` (far_ground_ohm, z0_ohm: an auto-terminated wire whose far ground exceeds 0.7 |Z0|),
     ``strong-signal-overload`` (stations, loudest, loudest_hz, stage, stage_input_dbm, p1db_dbm, margin_db, over_db,
     filter_db, assumed), ``strong-signal-product`` (order, freq_hz, stations, stage, level_dbm, noise_dbm, over_db,

@@ -170,6 +170,17 @@ def apart_text(counts: dict[str, int], where: str, per_band: bool = False) -> st
     return f"{total} more {what} on candidates the station plan {whose} ({each}); {where}"
 
 
+def hops_text(hops) -> str:
+    """A target by place's hop counts in words: '2-3 hops', or '1 hop from nearly overhead (NVIS)'.
+
+    >>> hops_text([1])
+    '1 hop from nearly overhead (NVIS)'
+    """
+    if len(hops) == 1:
+        return "1 hop from nearly overhead (NVIS)"
+    return f"{hops[0]}-{hops[-1]} hops"
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
@@ -528,6 +539,15 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             "but plan points are metres east and north of the plan's origin (or lengths with their unit); give "
             "places by latitude and longitude as { latlon = [[lat, lon], ...] } (a position: { latlon = [lat, lon] }) "
             "or as distances from the origin"
+        )
+    if n.code == "target-near-vertical":
+        return (
+            f"target {v['target']!r}, {v['distance_km']:.0f} km away, arrives by one hop from nearly overhead, at "
+            f"{v['elevation_deg']:.0f} deg elevation (near-vertical incidence, NVIS): its SNR gains rest on how each "
+            "antenna hears from near the zenith, where a vertical has its null; such a sky wave comes back only while "
+            "the frequency lies below the layer's critical frequency (on the low bands, mostly at night), and at this "
+            "range the station's ground wave may be heard as well; if you hear it along the ground, give it by "
+            f"bearing = {v['bearing_deg']:.0f} with elevation = [1, 3]"
         )
     if n.code == "man-made-extrapolated":
         return (

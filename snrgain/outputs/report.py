@@ -14,7 +14,7 @@ from datetime import UTC, datetime
 import numpy as np
 
 from snrgain.outputs import plots
-from snrgain.outputs.messages import notice_text
+from snrgain.outputs.messages import hops_text, notice_text
 from snrgain.outputs.output import PREAMP_LEGEND, ground_text, preamp_cell
 from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import number_text, s_units, signed_text
@@ -171,7 +171,7 @@ def _summary(r) -> str:
         "<th>distance (km)</th></tr>"
     ]
     for t in r.targets:
-        dist = "&ndash;" if t["distance_km"] is None else f"{t['distance_km']:.0f} ({t['hops'][0]}-{t['hops'][1]} hops)"
+        dist = "&ndash;" if t["distance_km"] is None else f"{t['distance_km']:.0f} ({hops_text(t['hops'])})"
         tg.append(
             f"<tr><td class='name'>{_e(t['name'])}</td><td>{t['weight']:.2f}</td><td>{t['bearing_deg']:.0f}</td>"
             f"<td>{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}</td><td>{dist}</td></tr>"

@@ -8,7 +8,7 @@ import numpy as np
 from pydantic import Field, field_validator, model_validator
 
 from snrgain.antennas.base import item_label
-from snrgain.fields import Bearing, Elevation, Latitude, Longitude, Name, StrictModel, quantity
+from snrgain.fields import Bearing, Elevation, Latitude, Longitude, Name, StrictModel, make_ground, quantity
 from snrgain.physics import targets as targetmod
 from snrgain.problems import toml_repr
 
@@ -77,11 +77,16 @@ class Target(StrictModel):
         return self
 
 
-def resolve_target(t: Target, site: SiteSection) -> targetmod.TargetDirections:
+def resolve_target(t: Target, site: SiteSection, freq_hz: float | None = None) -> targetmod.TargetDirections:
+    """A target's directions; one by place within the ground-wave range at ``freq_hz`` over the site's ground (its
+    middle) is refused (snrgain.physics.targets; without ``freq_hz``, within 1 km)."""
     if t.bearing is not None:
         return targetmod.from_bearing(
             t.name, bearing_rad=t.bearing, elevation_lo_rad=t.elevation[0], elevation_hi_rad=t.elevation[1]
         )
+    near = None
+    if freq_hz is not None:
+        near = targetmod.ground_wave(freq_hz, make_ground(site.ground), t.layer_height)
     return targetmod.from_place(
         t.name,
         site_lat_deg=site.latitude,
@@ -90,6 +95,7 @@ def resolve_target(t: Target, site: SiteSection) -> targetmod.TargetDirections:
         lon_deg=t.longitude,
         layer_height_m=t.layer_height,
         min_elevation_rad=t.min_elevation,
+        near=near,
     )
 
 
@@ -98,7 +104,7 @@ def resolve_targets(model: ScenarioModel) -> tuple[list[targetmod.TargetDirectio
     tgts, problems = [], []
     for i, t in enumerate(model.target):
         try:
-            tgts.append(resolve_target(t, model.site))
+            tgts.append(resolve_target(t, model.site, model.band.frequency))
         except ValueError as exc:
             problems.append((item_label("target", i, t.model_dump()), str(exc)))
     return tgts, problems

@@ -7,14 +7,17 @@ A varied key is written ``TABLE: KEY = VALUES`` (snrgain's own syntax):
 - VALUES is a range ``START to STOP by STEP`` (the same unit throughout, STOP included when the steps reach
   it: ``150 m to 350 m by 10 m``; its values kept to 12 decimal places, a finer step refused) or a list ``A, B, C``
   (``sandy soil, moist loam``; ``1, 7`` for months; a value that is itself a list in brackets, as the scenario
-  writes it: ``[0, 40], [30, 40]`` for two positions).  The output column holds a quantity's numbers with the unit
-  in its name, for a range and for a list alike (``Beverage NE: height [m]``).
+  writes it: ``[0, 40], [30, 40]`` for two positions, ``[12, 1], [6, 7]`` for two designs' months).  The output
+  column holds a quantity's numbers with the unit in its name, for a range and for a list alike (``Beverage NE:
+  height [m]``), and a list as the scenario writes it (``[12, 1]``).
 
     >>> v = parse_vary("Beverage NE: length = 150 m to 250 m by 50 m")
     >>> v.table, v.key, v.values, v.column
     ('Beverage NE', 'length', ['150 m', '200 m', '250 m'], 'Beverage NE: length [m]')
     >>> parse_vary("time: months = 1, 7").values
     [[1], [7]]
+    >>> parse_vary("time: months = [12, 1], [6, 7]").values
+    [[12, 1], [6, 7]]
 
 Every combination of the varied values is one design.  When only candidates' own keys vary, the sky, the
 reference and every other antenna are computed once and each design rebuilds only what changed; otherwise
@@ -43,8 +46,9 @@ from snrgain.scenario.feedline import FEED_LINE_KEY
 
 SECTIONS = ("site", "band", "time", "receiver", "chain", "noise", "uncertainty", "compute")
 """Tables of the scenario that a sweep may vary besides the antennas."""
-LIST_KEYS = {("time", "months"), ("time", "utc_hours")}
-"""Keys whose value is a list: a varied value becomes a one-element list (one month per design)."""
+LIST_KEYS = {("time", "months"): "month", ("time", "utc_hours"): "hour"}
+"""Keys whose value is a list (and what one item is): a bare number is a one-element list (one month per design), a
+bracketed list one value as it stands (``[12, 1], [6, 7]``: two designs of two months each)."""
 MAX_DESIGNS = 10_000_000
 """The most designs one sweep may hold."""
 LONG_DESIGNS = 200_000
@@ -123,16 +127,14 @@ def _items(values: str, arg: str) -> list[str]:
     return [*items, values[start:].strip()]
 
 
-def _bracketed(item: str, arg: str):
+def _bracketed(item: str, arg: str, example: str = '[12, -9.1] or ["12 m", "-30 ft"]'):
     """A bracketed list item (a position ``[12, -9.1]`` or ``["12 m", "-30 ft"]``) as TOML reads it."""
     import tomllib
 
     try:
         return tomllib.loads(f"v = {item}")["v"]
     except tomllib.TOMLDecodeError:
-        raise VaryError(
-            arg, f'cannot read {item!r} as a list: write it as in the scenario, e.g. [12, -9.1] or ["12 m", "-30 ft"]'
-        ) from None
+        raise VaryError(arg, f"cannot read {item!r} as a list: write it as in the scenario, e.g. {example}") from None
 
 
 SI_SYMBOLS = {"length": "m", "frequency": "Hz", "conductivity": "S/m", "resistance": "ohm", "angle": "deg"}
@@ -210,6 +212,8 @@ def parse_vary(text: str) -> Vary:
                 f"and 15 significant digits of {max(abs(a), abs(b)):g}): {n} designs would repeat values; give a "
                 "coarser step",
             )
+        if listed and not ua and all(float(x).is_integer() for x in nums):
+            nums = [int(x) for x in nums]  # months and hours as the scenario writes them (a month is whole)
         vals = [f"{np.format_float_positional(x, trim='-')} {ua}" if ua else x for x in nums]
         column = f"{table}: {key} [{ua}]" if ua else f"{table}: {key}"
         col_vals = nums
@@ -219,12 +223,34 @@ def parse_vary(text: str) -> Vary:
             raise VaryError(text, "no values: give a range START to STOP by STEP or a list A, B, C")
         if not all(items):
             raise VaryError(text, f"item {items.index('') + 1} of the list is empty (two commas, or one at an end)")
-        vals = [_bracketed(s, text) if s.startswith("[") else _scalar(s) for s in items]
+        example = {"month": "[12, 1]", "hour": "[0, 2]"}.get(LIST_KEYS.get((table, key)))
+        vals = [
+            _bracketed(s, text, *([example] if example else [])) if s.startswith("[") else _scalar(s) for s in items
+        ]
+        if listed:
+            vals = _as_lists(vals, items, LIST_KEYS[table, key], f"{table}.{key}", text)
         unit, col_vals = _list_column(vals)
         column = f"{table}: {key} [{unit}]" if unit else f"{table}: {key}"
     if listed:
-        vals = [[v] for v in vals]
+        vals = [v if isinstance(v, list) else [v] for v in vals]
     return Vary(text, table, key, vals, column, col_vals)
+
+
+def _as_lists(vals: list, items: list[str], one: str, where: str, arg: str) -> list:
+    """A list key's values: each bracketed list as it stands, a bare number as a list of one; a bare item that is
+    not a number refused, with the two forms.  Bare numbers alone stay bare here, so that their column holds the
+    numbers (parse_vary makes them lists); beside a bracketed list each is a list too, as its column shows it."""
+    for v, item in zip(vals, items):
+        if not isinstance(v, (list, int, float)) or isinstance(v, bool):
+            raise VaryError(
+                arg,
+                f"{where} takes a list of {one}s, and {item!r} is neither one {one} nor a list in brackets: write "
+                f"one {one} a design ({'1, 7' if one == 'month' else '0, 12'}) or each design's {one}s in brackets "
+                f"({'[12, 1], [6, 7]' if one == 'month' else '[0, 2], [4, 6]'})",
+            )
+    if not any(isinstance(v, list) for v in vals):
+        return vals
+    return [v if isinstance(v, list) else [v] for v in vals]
 
 
 def _table(data: dict, vary: Vary) -> dict:
@@ -660,7 +686,7 @@ class _TableWriter:
                 self._csv.writerow(self.columns)
         if self.fmt == "csv":
             for r in rows:
-                self._csv.writerow([_cell(r[c]) for c in self.columns])
+                self._csv.writerow([csv_cell(r[c]) for c in self.columns])
         else:
             import pyarrow as pa
             import pyarrow.parquet as pq
@@ -677,9 +703,15 @@ class _TableWriter:
             self._pq.close()
 
 
-def _cell(v):
+def csv_cell(v):
+    """A CSV cell: a float as Python writes it (empty if not finite), a list as the scenario and --vary write it
+    (``[12, 1]``, ``["10 m", "75 m"]``), anything else as it is."""
     if isinstance(v, float):
         return "" if not math.isfinite(v) else repr(v)
+    if isinstance(v, (list, tuple)):
+        import json
+
+        return json.dumps(list(v), ensure_ascii=False)
     return v
 
 
