@@ -181,6 +181,24 @@ def hops_text(hops) -> str:
     return f"{hops[0]}-{hops[-1]} hops"
 
 
+def _overhead_words(v: dict) -> str:
+    """When a wave from overhead comes back at the target-near-vertical notice's frequency: the layer returns a wave
+    arriving at elevation e below its critical frequency over sin(e) (the secant law; K. Davies, "Ionospheric Radio",
+    Peter Peregrinus 1990, ch. 6, from memory), by day and by night at the critical frequencies the scenario takes."""
+    f, day, night = v.get("freq_hz"), v.get("critical_day_hz"), v.get("critical_night_hz")
+    if f is None or day is None or night is None:
+        return "such a sky wave comes back only while the frequency lies below the layer's critical frequency"
+    k = 1.0 / np.sin(np.radians(v["elevation_deg"]))
+    back = [when for when, fc in (("by day", day), ("by night", night)) if f < fc * k]
+    head = (
+        f"at {f / 1e6:g} MHz, with the layer's critical frequency the scenario takes ({day / 1e6:g} MHz by day, "
+        f"{night / 1e6:g} MHz by night), a wave this steep "
+    )
+    if not back:
+        return head + "passes through the layer by day and by night: it may not come back at all"
+    return head + ("comes back " + " and ".join(back) if len(back) == 2 else f"comes back only {back[0]}")
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""
@@ -544,8 +562,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         return (
             f"target {v['target']!r}, {v['distance_km']:.0f} km away, arrives by one hop from nearly overhead, at "
             f"{v['elevation_deg']:.0f} deg elevation (near-vertical incidence, NVIS): its SNR gains rest on how each "
-            "antenna hears from near the zenith, where a vertical has its null; such a sky wave comes back only while "
-            "the frequency lies below the layer's critical frequency (on the low bands, mostly at night), and at this "
+            f"antenna hears from near the zenith, where a vertical has its null; {_overhead_words(v)}, and at this "
             "range the station's ground wave may be heard as well; if you hear it along the ground, give it by "
             f"bearing = {v['bearing_deg']:.0f} with elevation = [1, 3]"
         )

@@ -116,13 +116,21 @@ def check_report_size(sc, plan: bool, *, allow_long: bool = False) -> ReportSize
         fit.append(f"with these {s.antennas} antennas a report fits {few_targets} targets")
     if few_antennas:
         fit.append(
-            f"with these {s.targets} targets {few_antennas} antennas (the reference and {few_antennas - 1} candidates)"
+            f"with these {s.targets} targets it fits {few_antennas} antennas (the reference and {few_antennas - 1} "
+            "antennas as ranked, a switched antenna's every state counted)"
         )
+    over = [
+        f"{what} over the report's limit of {limit}"
+        for what, limit, past in (
+            (f"about {s.seconds:.0f} s of drawing,", f"{MAX_SECONDS:.0f} s", s.seconds > MAX_SECONDS),
+            (f"{s.page_bytes / 1e6:.0f} MB of page,", f"{MAX_BYTES / 1e6:.0f} MB", s.page_bytes > MAX_BYTES),
+        )
+        if past
+    ]
     raise TooLargeError(
-        f"this report would draw {s.figures} figures ({size_words(s)}), about {s.seconds:.0f} s and "
-        f"{s.page_bytes / 1e6:.0f} MB of page ({s.memory_bytes / 2**30:.1f} GB of memory while it is made), above "
-        f"the report's limits of {MAX_SECONDS:.0f} s and {MAX_BYTES / 1e6:.0f} MB; "
-        + (f"{' and '.join(fit)}; " if fit else "")
+        f"this report would draw {s.figures} figures ({size_words(s)}): {' and '.join(over)} "
+        f"({s.memory_bytes / 2**30:.1f} GB of memory while it is made); "
+        + (f"{'; or '.join(fit)}; " if fit else "")
         + "rank gives every table without the figures; or allow it (--allow-long)",
         field="target",
     )

@@ -212,7 +212,9 @@ def from_place(
         raise ValueError(
             f"target {name!r} lies {dist / 1e3:.1f} km from the site, within the ground-wave range, {near.words()}, "
             "inside which a station's ground wave along the ground outweighs its sky wave from overhead: it is heard "
-            f"at elevations near 0, not by the sky-wave hops a target by place is given; {instead}"
+            f"at elevations near 0, not by the sky-wave hops a target by place is given; {instead} (in a file of "
+            "several bands, the target's bands can keep it to the higher bands, where the ground-wave range is "
+            "shorter)"
         )
     if dist > NEAR_ANTIPODE_M:  # the great circles through the site all meet there: its bearing is not defined
         raise ValueError(
