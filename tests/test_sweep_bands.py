@@ -96,3 +96,19 @@ def test_a_band_named_by_its_frequency_keeps_its_name_when_varied(tmp_path):
     assert res.exit_code == 0, res.output
     keys = ("band: frequency [MHz]", "antenna", "target", "snr_gain_db")
     assert [tuple(r[k] for k in keys) for r in rows] == [tuple(r[k] for k in keys) for r in _rows(named)]
+
+
+def test_a_time_key_a_band_sets_itself_is_refused_for_that_band(tmp_path):
+    # three-bands.toml's 40 m band lists its own utc_hours: [time] utc_hours varied would not reach it, and its rows
+    # would read as changed when nothing changed there; refused, naming the band and what to vary instead.
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    path = REPO / "tests" / "data" / "sites" / "three-bands.toml"
+    vary = ["--vary", "time: utc_hours = [0, 2], [4, 6]", "-o", str(tmp_path / "s.csv")]
+    res = CliRunner().invoke(cli, ["sweep", str(path), *vary])
+    assert res.exit_code == 2 and "does not reach '40 m', which has its own utc_hours" in " ".join(res.output.split())
+    assert not (tmp_path / "s.csv").exists()
+    res = CliRunner().invoke(cli, ["sweep", str(path), "--band", "80 m", *vary])
+    assert res.exit_code == 0, res.output

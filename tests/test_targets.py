@@ -189,6 +189,6 @@ def test_check_and_rank_say_a_near_vertical_target(tmp_path):
     path.write_text(_place_scenario(45.45))
     res = CliRunner().invoke(cli, ["check", str(path)])
     assert res.exit_code == 0, res.output
-    assert "elevation 84.1 deg, 50 km, 1 hop from nearly overhead (NVIS)" in res.output
+    assert "elevation 84.1 deg, 50 km, 1 hop from nearly overhead, NVIS" in res.output
     assert "rank would warn: target 'far south', 50 km away, arrives by one hop from nearly overhead" in res.output
     assert target_notices(load(_place_scenario(47.6))) == []  # 289 km: 1-2 hops, no notice

@@ -638,7 +638,8 @@ def _target_dict(t, w, times) -> dict:
         "elevation_min_deg": float(np.degrees(t.elevation_rad.min())),
         "elevation_max_deg": float(np.degrees(t.elevation_rad.max())),
         "distance_km": None if t.distance_m is None else t.distance_m / 1e3,
-        "hops": None if t.hops is None else list(t.hops),
+        # (fewest, most) hops: one hop alone (near-vertical incidence) as [1, 1], the pair every reader takes
+        "hops": None if t.hops is None else [int(t.hops[0]), int(t.hops[-1])],
         "months": list(times.months),
         "utc_hours": list(times.utc_hours),
     }

@@ -171,13 +171,13 @@ def apart_text(counts: dict[str, int], where: str, per_band: bool = False) -> st
 
 
 def hops_text(hops) -> str:
-    """A target by place's hop counts in words: '2-3 hops', or '1 hop from nearly overhead (NVIS)'.
+    """A target by place's hop counts in words: '2-3 hops', or '1 hop from nearly overhead, NVIS'.
 
     >>> hops_text([1])
-    '1 hop from nearly overhead (NVIS)'
+    '1 hop from nearly overhead, NVIS'
     """
     if len(hops) == 1:
-        return "1 hop from nearly overhead (NVIS)"
+        return "1 hop from nearly overhead, NVIS"
     return f"{hops[0]}-{hops[-1]} hops"
 
 

@@ -113,6 +113,18 @@ def bands_table(br, *, build: bool = False):
     return Group(*parts)
 
 
+def elevation_span(lo: float, hi: float, dash: str = "-") -> str:
+    """A target's elevations [deg] as the terminal and the report print them: one value where they round alike, and
+    a narrow range with a decimal (19.5-20.5, not 20-20; 4.5-5.5, not 4-6).
+
+    >>> elevation_span(88.0, 88.0), elevation_span(19.5, 20.5), elevation_span(5.0, 20.0)
+    ('88', '19.5-20.5', '5-20')
+    """
+    digits = 1 if 0 < hi - lo < 2 else 0
+    a, b = f"{lo:.{digits}f}", f"{hi:.{digits}f}"
+    return a if a == b else f"{a}{dash}{b}"
+
+
 def _f(x, fmt="{:+.1f}"):
     x = float(x)
     if np.isnan(x):
@@ -255,9 +267,7 @@ def target_table(r: Results, i: int, lab=None):
 
     lab = labelled(r) if lab is None else lab
     t = r.targets[i]
-    lo, hi = t["elevation_min_deg"], t["elevation_max_deg"]
-    digits = 1 if 0 < hi - lo < 2 else 0  # a narrow range keeps a decimal (19.5-20.5, not 20-20; 4.5-5.5, not 4-6)
-    span = f"{lo:.{digits}f}" if f"{lo:.{digits}f}" == f"{hi:.{digits}f}" else f"{lo:.{digits}f}-{hi:.{digits}f}"
+    span = elevation_span(t["elevation_min_deg"], t["elevation_max_deg"])
     where = f"{t['bearing_deg']:.0f} deg, {span} deg elevation"
     if t.get("distance_km"):
         where += f", {t['distance_km']:.0f} km"

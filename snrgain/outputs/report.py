@@ -15,7 +15,7 @@ import numpy as np
 
 from snrgain.outputs import plots
 from snrgain.outputs.messages import hops_text, notice_text
-from snrgain.outputs.output import PREAMP_LEGEND, ground_text, preamp_cell
+from snrgain.outputs.output import PREAMP_LEGEND, elevation_span, ground_text, preamp_cell
 from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import number_text, s_units, signed_text
 
@@ -174,7 +174,7 @@ def _summary(r) -> str:
         dist = "&ndash;" if t["distance_km"] is None else f"{t['distance_km']:.0f} ({hops_text(t['hops'])})"
         tg.append(
             f"<tr><td class='name'>{_e(t['name'])}</td><td>{t['weight']:.2f}</td><td>{t['bearing_deg']:.0f}</td>"
-            f"<td>{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}</td><td>{dist}</td></tr>"
+            f"<td>{elevation_span(t['elevation_min_deg'], t['elevation_max_deg'], '&ndash;')}</td><td>{dist}</td></tr>"
         )
     tg.append("</table>")
     return "\n".join(out + tg)
@@ -188,7 +188,7 @@ def _ranking(r) -> str:
         hours = ", ".join(f"{h:g}" for h in listening_order(t["utc_hours"], 24))
         out.append(
             f"<h3>{_e(t['name'])}</h3><p class='note'>Bearing {t['bearing_deg']:.0f}&deg;, elevations "
-            f"{t['elevation_min_deg']:.0f}&ndash;{t['elevation_max_deg']:.0f}&deg;; months "
+            f"{elevation_span(t['elevation_min_deg'], t['elevation_max_deg'], '&ndash;')}&deg;; months "
             f"{', '.join(str(m) for m in listening_order(t['months'], 12))}; UTC hours {hours}.</p>"
         )
         head = [

@@ -106,7 +106,7 @@ class GroundWave:
         if g is None:
             over = "perfect ground"
         else:
-            constants = f"{g.conductivity_s_per_m * 1e3:g} mS/m, relative permittivity {g.permittivity:g}"
+            constants = f"{g.conductivity_s_per_m * 1e3:.3g} mS/m, relative permittivity {g.permittivity:.3g}"
             over = constants if g.name == "custom" else f"{g.name} ({constants})"
         reach = "at least " if self.range_m >= GROUND_WAVE_REACH_M else ""
         return f"{reach}{self.range_m / 1e3:.0f} km at {self.freq_hz / 1e6:g} MHz over {over}"

@@ -412,6 +412,14 @@ def validate(study: Study) -> None:
                 f"the scenario has {len(study.bands)} bands ({', '.join(study.bands)}): one {vary.key} would be set "
                 "in every band, each still named as in the file; pick the band to vary with --band",
             )
+        own = _bands_with_own(study, vary)
+        if own:
+            raise VaryError(
+                vary.text,
+                f"time.{vary.key} does not reach {', '.join(map(repr, own))}, which has its own {vary.key} "
+                f"([[band]] {vary.key}): its rows would not change; vary 'band: {vary.key} = ...' with --band "
+                f"{own[0]!r}, or pick another band with --band",
+            )
     for band in study.bands:
         validate(study.in_band(band))
     if study.bands:
@@ -429,6 +437,20 @@ def validate(study: Study) -> None:
                 raise
             except (ScenarioError, SpecError, ValueError) as exc:
                 _invalid(study, vary, value, exc)
+
+
+def _bands_with_own(study: Study, vary: Vary) -> list[str]:
+    """The bands run (``--band``'s, else every band) whose own table sets the ``[time]`` key ``vary`` varies (months,
+    utc_hours): there the band's own wins, and the design's value would not reach them."""
+    from snrgain.scenario.bands import band_label
+
+    if vary.table != "time" or vary.key not in ("months", "utc_hours"):
+        return []
+    tables = study.data.get("band")
+    if not isinstance(tables, list):
+        return []
+    run = set(study.bands) if study.bands else {study.band}
+    return [band_label(t) for t in tables if isinstance(t, dict) and vary.key in t and band_label(t) in run]
 
 
 def _invalid(study: Study, vary: Vary, value, exc: Exception):
