@@ -873,3 +873,24 @@ def test_the_figures_process_imports_matplotlib_as_it_is():
     )
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
     assert done.returncode == 0 and done.stdout.strip() == "ok", done.stderr[-2000:]
+
+
+def test_a_site_plan_of_many_antennas_grows_to_hold_its_legend(tmp_path):
+    # 65 antennas' legend entries once left the plot no room: matplotlib refused the layout ("bottom cannot be >=
+    # top"); the legend now takes four columns and the figure grows, the plot keeping its height.
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+    from tests.scenario_text import scenario_text
+
+    whips = "".join(
+        f'[[candidate]]\nname = "V{k:02d}"\nfamily = "vertical"\nheight = "{4 + k % 4} m"\n'
+        f"position = [{100 + 15 * (k % 10)}, {100 + 15 * (k // 10)}]\n\n"
+        for k in range(64)
+    )
+    path = tmp_path / "many.toml"
+    path.write_text(scenario_text(name="Big Meadow", candidates=whips), encoding="utf-8")
+    (tmp_path / "figs").mkdir()
+    res = CliRunner().invoke(cli, ["figures", str(path), "--only", "plan", "--dir", str(tmp_path / "figs")])
+    assert res.exit_code == 0, res.output
+    assert (tmp_path / "figs" / "plan.png").stat().st_size > 10_000

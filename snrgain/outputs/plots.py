@@ -1178,10 +1178,25 @@ def _draw_plan(plan: dict, looks: dict, title: str, *, ax=None):
         y=1.0,
     )
     entries = len(ax.get_legend_handles_labels()[1])
-    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, -0.08), ncols=2, frameon=False)
-    if own:  # below the plot: its axis label, then the legend's rows
-        _place(fig, left=0.9, right=0.3, top=0.6, bottom=0.9 + 0.2 * ((entries + 1) // 2))
+    ncols = 2 if entries <= PLAN_LEGEND_TWO_COLUMNS else 4  # a site of many antennas: a wider legend, fewer rows
+    below = -0.08  # the legend's top under the plot, as a share of its height
+    if own:  # below the plot: its axis label, then the legend's rows; the figure grows so the plot keeps its size
+        bottom = 0.9 + 0.2 * (-(-entries // ncols))
+        w, h = fig.get_size_inches()
+        if h < 0.6 + bottom + PLAN_MIN_HEIGHT_IN:
+            h = 0.6 + bottom + PLAN_MIN_HEIGHT_IN
+            fig.set_size_inches(w, h)
+        _place(fig, left=0.9, right=0.3, top=0.6, bottom=bottom)
+        below = min(below, -0.5 / (h - 0.6 - bottom))  # at least half an inch: clear of the axis label
+    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(0, below), ncols=ncols, frameon=False)
     return fig
+
+
+PLAN_LEGEND_TWO_COLUMNS = 24
+"""A site plan's legend takes two columns up to this many entries, four beyond."""
+PLAN_MIN_HEIGHT_IN = 4.0
+"""The least height [in] a site plan's drawing keeps above its legend (the figure grows with a long legend: 65
+entries once left the plot no room, and matplotlib refused the layout)."""
 
 
 FAVOURED_ARROW_PT = 24.0
