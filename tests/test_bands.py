@@ -11,6 +11,7 @@ from snrgain.cli.main import cli
 from snrgain.errors import ScenarioError
 from snrgain.model.pipeline import evaluate_bands
 from tests.conftest import REPO
+from tests.scenario_text import one_spot
 
 SITE = REPO / "tests" / "data" / "sites" / "three-bands.toml"
 
@@ -136,59 +137,7 @@ def test_three_bands_with_switched_antennas_build_each_antenna_once():
     assert "two-wire Beverage: adds" in text and "serves 160 m, 80 m, 40 m" in text
 
 
-ONE_SPOT_TWO_BANDS = """
-[site]
-name = "one spot"
-latitude = 44.2
-longitude = -71.3
-lot = [[-30, -30], [30, -30], [30, 30], [-30, 30]]
-
-[[band]]
-name = "80 m"
-frequency = "3.55 MHz"
-
-[[band]]
-name = "40 m"
-frequency = "7.03 MHz"
-
-[time]
-months = [1]
-utc_hours = [4]
-
-[uncertainty]
-ground = false
-noise_deciles = false
-local_sources = false
-
-[[target]]
-name = "north-east"
-bearing = 45
-elevation = [10, 25]
-
-[[target]]
-name = "south-west"
-bearing = 225
-elevation = [10, 25]
-
-[reference]
-family = "vertical"
-height = "10 m"
-position = [-25, -25]
-
-[[candidate]]
-name = "pair NE"
-family = "phased-verticals"
-positions = [[0, 0], [10, 10]]
-height = "4 m"
-bearing = 45
-
-[[candidate]]
-name = "pair SW"
-family = "phased-verticals"
-positions = [[0, 0], [10, 10]]
-height = "4 m"
-bearing = 225
-"""
+ONE_SPOT_TWO_BANDS = one_spot("4 m", bands={"80 m": ("3.55 MHz", ""), "40 m": ("7.03 MHz", "")})
 
 
 def test_the_plan_across_bands_builds_one_of_two_antennas_in_one_place():

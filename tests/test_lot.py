@@ -9,6 +9,7 @@ from snrgain.cli.main import cli
 from snrgain.errors import ScenarioError
 from snrgain.scenario import load
 from tests.conftest import SCENARIOS
+from tests.scenario_text import one_spot
 
 BASE = """
 [site]
@@ -431,54 +432,7 @@ def test_a_reference_without_a_position_at_an_origin_no_antenna_could_take_is_sa
     assert f"stands at the plan's origin, [0, 0], which is {expected}" in notice_text(n)
 
 
-ONE_SPOT = """
-[site]
-name = "one spot"
-latitude = 44.2
-longitude = -71.3
-lot = [[-30, -30], [30, -30], [30, 30], [-30, 30]]
-
-[band]
-frequency = "3.55 MHz"
-
-[time]
-months = [1]
-utc_hours = [4]
-
-[uncertainty]
-ground = false
-noise_deciles = false
-local_sources = false
-
-[[target]]
-name = "north-east"
-bearing = 45
-elevation = [10, 25]
-
-[[target]]
-name = "south-west"
-bearing = 225
-elevation = [10, 25]
-
-[reference]
-family = "vertical"
-height = "10 m"
-position = [-25, -25]
-
-[[candidate]]
-name = "pair NE"
-family = "phased-verticals"
-positions = [[0, 0], [10, 10]]
-height = "5 m"
-bearing = 45
-
-[[candidate]]
-name = "pair SW"
-family = "phased-verticals"
-positions = [[0, 0], [10, 10]]
-height = "5 m"
-bearing = 225
-"""
+ONE_SPOT = one_spot("5 m", frequency="3.55 MHz")
 
 
 def test_the_plan_builds_one_of_two_antennas_in_one_place():

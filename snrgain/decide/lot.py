@@ -102,12 +102,12 @@ def reference_at_origin_notices(sc) -> list[Notice]:
     if ref.params.position is not None or getattr(ref, "positions", None) is not None and len(ref.positions) > 1:
         return []
     origin = Point(0.0, 0.0)
-    site = sc.site
+    lot, keep = lot_and_keep_outs(sc.site)
     where = None
-    if site.lot_m is not None and not polygon(site.lot_m, "site.lot").covers(origin):
+    if lot is not None and not lot.covers(origin):
         where = "off the lot"
-    for name, pts in getattr(site, "keep_out", ()):
-        if where is None and polygon(pts, f"site.keep_out {name!r}").covers(origin):
+    for name, area in keep:
+        if where is None and area.covers(origin):
             where = f"in the keep-out area {name!r}"
     return [] if where is None else [Notice("reference-at-origin", ref.name, {"where": where})]
 
@@ -266,6 +266,12 @@ def _too_close(shapes, only, wire_names: set[str], unit_pairs: set[frozenset]) -
     return out
 
 
+def lot_and_keep_outs(site):
+    """The site's lot (a polygon, None without one) and its keep-out areas as (name, polygon) pairs."""
+    lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
+    return lot, [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
+
+
 def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
     """Warnings about the antennas' places: off the lot, in a keep-out, crossing wires, near the TX vertical.  With
     ``only`` (antenna names: a sweep's design) just those antennas' own, against the others as they stand; the plan's
@@ -277,8 +283,7 @@ def site_notices(sc, only: set[str] | None = None) -> list[Notice]:
     from shapely.geometry import Point
 
     site = sc.site
-    lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
-    keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
+    lot, keep = lot_and_keep_outs(site)
     shapes, stands = places(sc)
     mine = None if only is None else {k for k, names in stands.items() if set(names) & set(only)}
     out = _place_notices(sc, shapes, mine, lot, keep)
@@ -399,8 +404,7 @@ def unfit(sc) -> dict[str, dict]:
     )
     if site.lot_m is None and not getattr(site, "keep_out", ()) and not given:
         return {}
-    lot = None if site.lot_m is None else polygon(site.lot_m, "site.lot")
-    keep = [(name, polygon(pts, f"site.keep_out {name!r}")) for name, pts in getattr(site, "keep_out", ())]
+    lot, keep = lot_and_keep_outs(site)
     shapes, stands = places(sc)
     found = [
         n

@@ -1470,8 +1470,8 @@ def pickup(sc, antennas, *, ground=None, powers=None) -> tuple[dict[str, np.ndar
         if src.measured_at_m is not None:  # Fa given where it was measured, not at the reference
             scale = (
                 scale
-                * _field_power(src, ref_m, sc.freq_hz, ground)
-                / _field_power(src, src.measured_at_m, sc.freq_hz, ground)
+                * field_power(src, ref_m, sc.freq_hz, ground)
+                / field_power(src, src.measured_at_m, sc.freq_hz, ground)
             )
         shares[src.name], out_powers[src.name] = scale, p
     return shares, out_powers
@@ -1577,7 +1577,7 @@ def _through_currents_many(antenna, src, freq_hz: float, at, ground, kind: str, 
     return _scaled_by_plane_waves(v_src, (rv, rh), (pts, dirs, cur), freq_hz, az, np.full(n, el), r_v, r_h)
 
 
-def _field_power(src, point_m, freq_hz: float, ground) -> float:
+def field_power(src, point_m, freq_hz: float, ground) -> float:
     """|E_v|^2 + |E_h|^2 of a placed source at one plan point, its dipoles' powers added (kept: a source measured
     elsewhere asks for the same two points at every pickup)."""
     key = (

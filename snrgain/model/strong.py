@@ -116,7 +116,7 @@ def _overload_notice(name: str, loads, sc, upper_bound: bool) -> Notice | None:
         return None
     at, lim = worst.levels_dbm, worst.limits
     loudest = max(at, key=lambda n: at[n][1])
-    filters = st.overload_filters(at, sc.freq_hz, lim.p1db_dbm - st.COMPRESSION_MARGIN_DB, sc.bandwidth_hz)
+    filters = st.overload_filters(at, sc.freq_hz, lim.safe_dbm, sc.bandwidth_hz)
     values = {
         "stations": sorted(at),
         "loudest": loudest,

@@ -119,10 +119,9 @@ def _near_structure_text(n: Notice, unit: str) -> str:
         else f"its height, at least {least}: a guyed tower's anchors commonly stand 60-80 % of its height from its foot"
     )
     return (
-        f"{n.antenna}: comes within {length_text(v['distance_m'], unit, 1)} of the structure {v['structure']!r} "
-        f"(keep {length_text(v['clearance_m'], unit, 0)}, {how}): closer, a wire or element runs among its guy wires "
-        f"and anchors, and the structure's computed re-radiation is checked against NEC-2 only from {least} out; move "
-        "the antenna clear of it" + _STRUCTURE_CAUTION
+        f"{n.antenna}: {place_phrase(n.code, v, unit, how=how, digits=1)}: closer, a wire or element runs among its "
+        f"guy wires and anchors, and the structure's computed re-radiation is checked against NEC-2 only from {least} "
+        "out; move the antenna clear of it" + _STRUCTURE_CAUTION
     )
 
 
@@ -319,12 +318,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             head + "; a rod's resistance drifts with soil moisture and the rear null with it: lower the far ground "
             "(longer or more rods, or a few short radials) until the resistor carries most of |Z0|"
         )
-    if n.code == "off-lot":
-        k = per_m(unit)
-        far = f"under 1 {unit}" if v["outside_m"] * k < 1 else f"up to {length_text(v['outside_m'], unit, 0)}"
-        return f"{n.antenna}: runs off the lot, {far} beyond its edge"
-    if n.code == "in-keep-out":
-        return f"{n.antenna}: enters the keep-out area {v['area']!r}"
+    if n.code in ("off-lot", "in-keep-out"):
+        return f"{n.antenna}: {place_phrase(n.code, v, unit)}"
     if n.code == "wires-same-place":
         return (
             f"{n.antenna}: lies where {v['other']} lies; fine as alternatives to compare, but only one can be "
@@ -349,8 +344,7 @@ def notice_text(n: Notice, unit: str = "m") -> str:
             else "half a wavelength: its coupling is not computed for this antenna"
         )
         return (
-            f"{n.antenna}: comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
-            f"{length_text(v['clearance_m'], unit, 0)}, {how}): a resonant vertical nearby re-radiates what "
+            f"{n.antenna}: {place_phrase(n.code, v, unit, how=how)}: a resonant vertical nearby re-radiates what "
             "it receives and distorts the pattern; detuning it while receiving (opening its feed, or a detuning "
             "network) is the usual cure" + (_DETUNE_CAUTION if not v.get("given", True) else "")
         )
@@ -694,26 +688,27 @@ def plan_not_best_text(target: str, why: dict, unit: str = "m") -> str:
 
 def unfit_text(where: dict, unit: str = "m") -> str:
     """Why an antenna cannot be built where it is placed (snrgain.decide.lot.unfit: {code, values}), in words;
-    lengths in ``unit``."""
-    v = where["values"]
-    if where["code"] == "part-unfit":
-        return f"its part {v['part']} {_unfit_phrase(v['code'], v['values'], unit)}"
-    return f"it {_unfit_phrase(where['code'], v, unit)}"
+    lengths in ``unit``; a clearance there is always one the user gave."""
+    who, code, v = "it", where["code"], where["values"]
+    if code == "part-unfit":  # a phasing unit over such a part: the part's own problem
+        who, code, v = f"its part {v['part']}", v["code"], v["values"]
+    how = "your clearance for it" if code == "near-structure" else "your tx_clearance"
+    return f"{who} {place_phrase(code, v, unit, how=how)}"
 
 
-def _unfit_phrase(code: str, v: dict, unit: str) -> str:
+def place_phrase(code: str, v: dict, unit: str, *, how: str = "", digits: int = 0) -> str:
+    """Where a place notice (off-lot, in-keep-out, near-tx-vertical, near-structure: snrgain.decide.lot) puts the
+    antenna, as the warning and the plan's note both say it: "runs off the lot, up to 168 m beyond its edge";
+    ``how``: where a clearance comes from; ``digits``: a structure's distance's decimals."""
     if code == "off-lot":
-        return f"runs off the lot, up to {length_text(v['outside_m'], unit, 0)} beyond its edge"
+        far = "under 1 " + unit if v["outside_m"] * per_m(unit) < 1 else f"up to {length_text(v['outside_m'], unit, 0)}"
+        return f"runs off the lot, {far} beyond its edge"
     if code == "in-keep-out":
         return f"enters the keep-out area {v['area']!r}"
-    if code == "near-structure":
-        return (
-            f"comes within {length_text(v['distance_m'], unit, 0)} of the structure {v['structure']!r} (keep "
-            f"{length_text(v['clearance_m'], unit, 0)}, your clearance for it)"
-        )
+    what = "the transmitting vertical" if code == "near-tx-vertical" else f"the structure {v['structure']!r}"
     return (
-        f"comes within {length_text(v['distance_m'], unit, 0)} of the transmitting vertical (keep "
-        f"{length_text(v['clearance_m'], unit, 0)}, your tx_clearance)"
+        f"comes within {length_text(v['distance_m'], unit, digits)} of {what} (keep "
+        f"{length_text(v['clearance_m'], unit, 0)}, {how})"
     )
 
 

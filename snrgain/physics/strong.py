@@ -109,6 +109,11 @@ class StageLimits:
     iip2_dbm: float
     assumed: tuple[str, ...] = ()
 
+    @property
+    def safe_dbm(self) -> float:
+        """The most the stage takes safely [dBm]: its 1 dB compression point less COMPRESSION_MARGIN_DB."""
+        return self.p1db_dbm - COMPRESSION_MARGIN_DB
+
 
 PREAMP_DEFAULTS = {"p1db_dbm": 5.0, "iip3_dbm": 20.0, "iip2_dbm": 60.0}
 """Limits assumed for a preamplifier that gives none (input-referred dBm): typical of low-band receiving
@@ -188,7 +193,7 @@ def stage_load(limits: StageLimits, levels_dbm: dict[str, tuple[float, float]]) 
     """The stations' total power at a stage's input (name -> (freq [Hz], level [dBm])) against its compression
     point (module docstring): overloaded where ``over_db`` > 0."""
     total = dbm(sum(10.0 ** (p / 10.0) * 1e-3 for _, p in levels_dbm.values()))
-    return StageLoad(limits, dict(levels_dbm), total, total - (limits.p1db_dbm - COMPRESSION_MARGIN_DB))
+    return StageLoad(limits, dict(levels_dbm), total, total - limits.safe_dbm)
 
 
 def worst_stage(loads):

@@ -662,10 +662,11 @@ def placements(res: LocateResult, *, at_m=None, distances_m=None, name: str = "l
             f"{len(distances_m)} distance(s) for {len(res.sources)} fitted source(s): a distance places one source; "
             "give one per source"
         )
+    from snrgain.tools.locatenear import plan_point
+
     out = []
     for s, label, dist in zip(res.sources, names, distances_m):
-        b = np.radians(s.bearing_deg)
-        where = (float(at_m[0] + dist * np.sin(b)), float(at_m[1] + dist * np.cos(b)))
+        where = plan_point(at_m, float(dist), np.radians(s.bearing_deg))
         across = float(dist * np.radians(min(s.bearing_sigma_deg, NO_BEARING_SIGMA_DEG)))
         out.append(Placement(label, s.bearing_deg, float(dist), where, across))
     return out

@@ -40,11 +40,15 @@ class Near:
     ground: object = None
 
 
+def plan_point(at_m, distance_m: float, bearing_rad: float) -> tuple[float, float]:
+    """The plan point [m east, m north] ``distance_m`` from ``at_m`` on the compass bearing ``bearing_rad``."""
+    return (float(at_m[0] + distance_m * np.sin(bearing_rad)), float(at_m[1] + distance_m * np.cos(bearing_rad)))
+
+
 def near_source(near: Near, k: int, azimuth_rad: float, elevation_rad: float, name: str = "located source"):
     """Source ``k`` at its distance on ``azimuth_rad`` from the reading point, as the copy writes it: a placed
     :class:`snrgain.sky.noise.LocalSource` (its Fa measured at the reading point; no level: the fit sets it)."""
-    d = float(near.distances_m[k])
-    pos = (near.at_m[0] + d * float(np.sin(azimuth_rad)), near.at_m[1] + d * float(np.cos(azimuth_rad)))
+    pos = plan_point(near.at_m, float(near.distances_m[k]), azimuth_rad)
     return noisemod.LocalSource(
         name,
         float(azimuth_rad % (2 * np.pi)),
@@ -57,21 +61,11 @@ def near_source(near: Near, k: int, azimuth_rad: float, elevation_rad: float, na
     )
 
 
-def field_power(src, point_m, freq_hz: float, ground) -> float:
-    """|E_v|^2 + |E_h|^2 of a placed source at one plan point (:func:`snrgain.model.placed.source_field`), its
-    dipoles' powers added."""
-    total = 0.0
-    for kind, _ in placed.dipoles(src):
-        ev, eh = placed.source_field(src, np.array([point_m], dtype=float), freq_hz, ground, kind=kind)
-        total += float(np.abs(ev[0]) ** 2 + np.abs(eh[0]) ** 2)
-    return total
-
-
 def near_gains(antennas, near: Near, k: int, azimuth_rad: float, elevation_rad: float, freq_hz: float) -> np.ndarray:
     """P_i / F of each antenna (standing at the reading point) for source ``k`` at ``azimuth_rad``: its gain toward a
     plane wave that would bring it what the placed source brings (module docstring)."""
     src = near_source(near, k, azimuth_rad, elevation_rad)
-    f_at = field_power(src, near.at_m, freq_hz, near.ground)
+    f_at = placed.field_power(src, near.at_m, freq_hz, near.ground)  # kept, as the products keep it
     p = [placed.received_power(a, src, freq_hz, near.at_m, near.ground, at_m=near.at_m) for a in antennas]
     return np.asarray(p, dtype=float) / f_at
 
