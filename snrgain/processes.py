@@ -2,7 +2,7 @@
 process.
 
 Used by the figures (snrgain.outputs.drawing: its workers and its drawing process) and by ``layout``
-(snrgain.tools.layout: the last candidates' grid, and the refinement of the candidates after the first or the
+(snrgain.tools.layout: about half the grid's groups, and the refinement of the candidates after the first or the
 layouts' exact scores, in a forked process).  Where fork is not available (Windows, macOS' default), with one core,
 or with ``SNRGAIN_WORKERS=1``, the callers do the work in this process; the results are the same either way.
 """

@@ -299,7 +299,7 @@ def _middle_of(rng):
 
 
 def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
-    # grid_all hands the last candidates to a forked process (two cores or more): every score the same as scored
+    # grid_all shares the grid's groups with a forked process (two cores or more): every score the same as scored
     # one after the other here, to the bit, and the search's layouts the same.
     import snrgain.tools.layout as layout
 
@@ -314,8 +314,10 @@ def test_the_grid_scored_in_two_processes_equals_it_scored_in_one(monkeypatch):
     shared = two.grid_all(feasible, progress=lambda done, total: seen.append((done, total)))
     assert shared == alone
     assert seen[-1] == (sum(map(len, feasible)),) * 2
-    # a candidate scored in the other process leaves no products here: the search makes its start again
-    assert not any(k[0] == len(feasible) - 1 for k in two._sky)
+    # a group scored in the other process leaves no products here (the search makes its start again); each
+    # candidate's first group is scored here, before the other process starts
+    assert {k[0] for k in two._sky} == set(range(len(feasible)))
+    assert len(two._sky) < len(one._sky)
     monkeypatch.setattr(layout, "spare_core", lambda: False)
     want = one.search(keep=2)
     monkeypatch.setattr(layout, "spare_core", lambda: True)

@@ -742,21 +742,22 @@ class Problem:
         """(score, design) of each of candidate i's feasible grid designs, a (bearing, length) at all its places in
         one call (:meth:`snr_gains_db`), in the grid's order; ``step(n)`` is called as n more are scored."""
         found = []
-        same: dict[tuple, list[Design]] = {}  # one design (bearing, length) at many places: scored at once
-        for d in designs:
-            same.setdefault((d.bearing_rad, d.length_m), []).append(d)
-        for group in same.values():
+        for group in _design_groups(designs):
             found += list(zip((float(g) for g in self.snr_gains_db(group, i)), group))
             if step is not None:
                 step(len(group))
         return found
 
     def grid_all(self, feasible: list[list[Design]], progress=None) -> list[list[tuple[float, Design]]]:
-        """:meth:`grid_scores` of every candidate: on a machine with two cores or more (and fork), the last
-        candidates (about half the places) in a forked process while this one scores the first, else one after the
-        other.  The scores are the same either way: a design's score at a place does not depend on what else was
-        scored before it (tested); the forked process's kept products are not kept here (the search makes again the
-        one design of those its refinement starts from)."""
+        """:meth:`grid_scores` of every candidate.  On a machine with two cores or more (and fork) the grid's
+        groups (a design, a bearing and length, at all its places) are shared between this process and a forked
+        one, each group whole, by their count of places (a group's cost is nearly a constant plus a share per
+        place), after this one has scored each candidate's first group (the tables and kept values a candidate's
+        first design makes, the placed sources' and the vertical's fields, the sky's groups, are then inherited by
+        the other process, not made again there); else one after the other.  The scores are the same either way:
+        a design's score at a place does not depend on what else was scored before it (tested); the groups scored
+        in the other process leave no kept products here (the search makes again the one design of those its
+        refinement starts from)."""
         total = sum(len(f) for f in feasible)
         done = [0]
 
@@ -765,23 +766,23 @@ class Problem:
             if progress is not None:
                 progress(done[0], total)
 
-        # the candidates from ``split`` on go to the other process: the split nearest half the places
-        split = min(range(1, len(feasible)), key=lambda k: abs(2 * sum(map(len, feasible[k:])) - total), default=0)
-        if not split or not spare_core():
+        groups = [_design_groups(f) for f in feasible]
+        if sum(max(len(g) - 1, 0) for g in groups) < 2 or not spare_core():  # nothing worth sharing
             return [self.grid_scores(i, f, step) for i, f in enumerate(feasible)]
-        # the first design scored here first: the tables and kept values it makes (the placed sources' and the
-        # vertical's fields, the sky's groups) are inherited by the other process, not made again there
-        d0 = feasible[0][0]
-        n0 = sum(1 for d in feasible[0] if (d.bearing_rad, d.length_m) == (d0.bearing_rad, d0.length_m))
-        first = self.grid_scores(0, feasible[0][:n0], step)
-        with elsewhere(lambda: [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]) as theirs:
-            out = [self.grid_scores(i, f[n0:] if i == 0 else f, step) for i, f in enumerate(feasible[:split])]
-            out[0] = first + out[0]
-            rest = theirs()
-        if rest is None:  # the other process failed: its candidates scored here
-            rest = [self.grid_scores(i, f) for i, f in enumerate(feasible) if i >= split]
-        step(sum(len(f) for f in feasible[split:]))
-        return out + list(rest)
+        scored = {(i, 0): self.grid_scores(i, g[0], step) for i, g in enumerate(groups) if g}
+        rest = [(i, k) for i, g in enumerate(groups) for k in range(1, len(g))]
+        here, there = _shared_out([GROUP_COST_PLACES + len(groups[i][k]) for i, k in rest])
+        theirs_ix = [rest[j] for j in there]
+        with elsewhere(lambda: [self.grid_scores(i, groups[i][k]) for i, k in theirs_ix]) as theirs:
+            for j in here:
+                i, k = rest[j]
+                scored[(i, k)] = self.grid_scores(i, groups[i][k], step)
+            got = theirs()
+        if got is None:  # the other process failed: its groups scored here
+            got = [self.grid_scores(i, groups[i][k]) for i, k in theirs_ix]
+        scored.update(zip(theirs_ix, got))
+        step(sum(len(groups[i][k]) for i, k in theirs_ix))
+        return [[x for k in range(len(g)) for x in scored[(i, k)]] for i, g in enumerate(groups)]
 
     def _layout(self, designs) -> Layout:
         """The layout of ``designs`` with each one's SNR gain as the ranking gives it (``exact``)."""
@@ -1135,3 +1136,29 @@ def with_layout(text: str, layout: Layout, unit: str | None = None) -> str:
             add.append(f"length = {length_literal(d.length_m, unit)}\n")
         text = rewrite_table(text, "[[candidate]]", d.name, drop={"position", "bearing", "length", "place"}, add=add)
     return text
+
+
+GROUP_COST_PLACES = 50
+"""A grid group's cost in places: scoring a design at n places costs about as much as n + GROUP_COST_PLACES places
+would at the margin (measured on the 20-acre demo: 4 ms for a handful of places, 8-10 ms for 70)."""
+
+
+def _design_groups(designs: list[Design]) -> list[list[Design]]:
+    """``designs`` in groups of one (bearing, length), in order of each group's first design."""
+    same: dict[tuple, list[Design]] = {}
+    for d in designs:
+        same.setdefault((d.bearing_rad, d.length_m), []).append(d)
+    return list(same.values())
+
+
+def _shared_out(costs: list[float]) -> tuple[list[int], list[int]]:
+    """The indices of ``costs`` shared between two processes, (here, there), each in order: greatest first, each
+    to the side with less so far (the longest-processing-time rule: within 4/3 of the best split, R. L. Graham,
+    "Bounds on multiprocessing timing anomalies", SIAM J. Appl. Math. 17 (1969) 416-429)."""
+    load = [0.0, 0.0]
+    sides: list[list[int]] = [[], []]
+    for j in sorted(range(len(costs)), key=lambda j: -costs[j]):
+        side = 0 if load[0] <= load[1] else 1
+        sides[side].append(j)
+        load[side] += costs[j]
+    return sorted(sides[0]), sorted(sides[1])
