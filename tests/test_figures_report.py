@@ -262,6 +262,35 @@ def test_figures_command(tmp_path):
     # each target's figures are named by the target (the demo's "South America"), not its number
 
 
+def test_figures_already_there_are_refused_before_the_evaluation(tmp_path, monkeypatch):
+    # The files a run would write are known from the scenario: one already there is refused at once (exit 2, naming
+    # it), not after a whole evaluation (which could take minutes on a large site).
+    import snrgain.cli.report as cli_report
+
+    def never(*_a, **_k):
+        raise AssertionError("evaluated before refusing")
+
+    monkeypatch.setattr(cli_report, "_evaluated", never)
+    (tmp_path / "azimuth-south-america.png").write_bytes(b"mine")
+    res = CliRunner().invoke(cli, ["figures", str(SCENARIOS / "alder-hollow.toml"), "--dir", str(tmp_path)])
+    assert res.exit_code == 2, res.output
+    assert "azimuth-south-america.png" in res.stderr and "--overwrite" in res.stderr
+    assert (tmp_path / "azimuth-south-america.png").read_bytes() == b"mine"
+    # --only plan on a file with no lot and no positions: refused before the evaluation too
+    bare = SCENARIOS / "marrow-fen.toml"  # no lot, no antenna positions
+    res = CliRunner().invoke(cli, ["figures", str(bare), "--only", "plan", "--dir", str(tmp_path)])
+    assert res.exit_code == 2 and "--only plan" in res.stderr, res.output
+
+
+def test_figures_says_a_long_drawing_before_it_starts():
+    # the same per-figure costs as the report's estimate (snrgain.outputs.reportsize), the figures asked for only
+    from snrgain.outputs.reportsize import NOTE_SECONDS, drawing_seconds, report_size
+
+    every = report_size(64, 65, True)
+    assert drawing_seconds(every.counts, 64, 65) == pytest.approx(every.seconds - drawing_seconds({"page": 1}, 64, 65))
+    assert drawing_seconds({"plan": 1}, 64, 65) < NOTE_SECONDS < drawing_seconds(every.counts, 64, 65)
+
+
 def _chromium():
     for name in ("chromium", "chromium-browser"):
         path = shutil.which(name)

@@ -298,23 +298,9 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
     with Drawer(fmt, modules=_RESULT_MODULES, keep=True) as drawer:
         with progress(None, f"figures: evaluating {scenario}"):
             sc, plan = _load(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
+            jobs = _figure_jobs(sc, plan, names, d, fmt, only=bool(only), overwrite=overwrite)
             early = _Ahead(drawer, fmt, plots.SAVE_OPTIONS, names, sc, plan)
             results = _evaluated(sc, allow_long, observe=early)
-        if "plan" in names and not plots.has_site_plan(results, plan=plan):
-            if only:
-                raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
-            names.remove("plan")
-        jobs = []
-        tags = target_file_tags([t["name"] for t in results.targets])
-        for name in names:
-            if name in ("azimuth", "elevation"):
-                for i, tag in enumerate(tags):
-                    jobs.append((d / f"{name}-{tag}.{fmt}", name, {"target_index": i}))
-            else:
-                jobs.append((d / f"{name}.{fmt}", name, {"plan": plan} if name == "plan" else {}))
-        existing = [str(p) for p, _, _ in jobs if p.exists()]
-        if existing and not overwrite:
-            raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
         from functools import partial
 
         from snrgain.files import write_set
@@ -337,6 +323,37 @@ def figures(scenario, out_dir, fmt, only, overwrite, allow_long, nside, p372_dir
             written = write_set(d, {p.name: writer(k) for k, (p, _, _) in enumerate(jobs)}, overwrite=overwrite)
     for path in written:
         click.echo(f"wrote {path}", err=True)
+
+
+def _figure_jobs(sc, plan, names: list[str], d: Path, fmt: str, *, only: bool, overwrite: bool) -> list[tuple]:
+    """(path, figure, options) of each figure to write, from the loaded scenario, before any work: ``names`` loses
+    the site plan where there is none to draw (refused where --only asked for it); files already there are refused
+    without ``overwrite``, and a long drawing is said on stderr (snrgain.outputs.reportsize)."""
+    from snrgain.outputs import plots
+    from snrgain.outputs.reportsize import NOTE_SECONDS, drawing_seconds
+
+    if "plan" in names and not plots.has_site_plan(None, plan=plan):
+        if only:
+            raise ValueError("--only plan: " + "the scenario gives no lot outline and no antenna positions")
+        names.remove("plan")
+    jobs = []
+    tags = target_file_tags([t.name for t in sc.targets])
+    for name in names:
+        if name in ("azimuth", "elevation"):
+            for i, tag in enumerate(tags):
+                jobs.append((d / f"{name}-{tag}.{fmt}", name, {"target_index": i}))
+        else:
+            jobs.append((d / f"{name}.{fmt}", name, {"plan": plan} if name == "plan" else {}))
+    existing = [str(p) for p, _, _ in jobs if p.exists()]
+    if existing and not overwrite:
+        raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
+    counts: dict[str, int] = {}
+    for _, name, _ in jobs:
+        counts[name] = counts.get(name, 0) + 1
+    seconds = drawing_seconds(counts, len(sc.targets), 1 + len(sc.candidates))
+    if seconds >= NOTE_SECONDS:
+        click.echo(f"figures: {len(jobs)} figures to draw, about {seconds:.0f} s of drawing", err=True)
+    return jobs
 
 
 def target_file_tags(names: list[str]) -> list[str]:

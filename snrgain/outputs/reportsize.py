@@ -90,15 +90,24 @@ def ranking_patterns_kilobytes(targets: int, antennas: int) -> float:
 def report_size(targets: int, antennas: int, plan: bool) -> ReportSize:
     """The estimate for ``targets`` targets and ``antennas`` antennas (the reference and the candidates)."""
     counts = figure_counts(targets, plan)
-    seconds, kilobytes = 0.0, ranking_patterns_kilobytes(targets, antennas)
-    for kind, n in (counts | {"page": 1}).items():
-        for i, c in enumerate(FIGURE_SVG_COST[kind]):
-            value = n * (c[0] + c[1] * antennas + c[2] * targets + c[3] * antennas * targets)
-            if i == 0:
-                seconds += value
-            else:
-                kilobytes += value
+    seconds, kilobytes = _costs(counts | {"page": 1}, targets, antennas)
+    kilobytes += ranking_patterns_kilobytes(targets, antennas)
     return ReportSize(targets, antennas, counts, seconds, kilobytes * 1e3)
+
+
+def drawing_seconds(counts: dict[str, int], targets: int, antennas: int) -> float:
+    """One core's estimated drawing time [s] of ``counts`` figures by kind (the ``figures`` command's own choice of
+    them) for ``targets`` targets and ``antennas`` antennas."""
+    return _costs(counts, targets, antennas)[0]
+
+
+def _costs(counts: dict[str, int], targets: int, antennas: int) -> tuple[float, float]:
+    """(seconds, kilobytes) of ``counts`` figures by kind (:data:`FIGURE_SVG_COST`)."""
+    out = [0.0, 0.0]
+    for kind, n in counts.items():
+        for i, c in enumerate(FIGURE_SVG_COST[kind]):
+            out[i] += n * (c[0] + c[1] * antennas + c[2] * targets + c[3] * antennas * targets)
+    return out[0], out[1]
 
 
 def check_report_size(sc, plan: bool, *, allow_long: bool = False) -> ReportSize:
