@@ -326,6 +326,12 @@ def test_horizontal_source_in_a_scenario():
     broadside = text.replace("orientation = 63.43494882", "orientation = 153.43494882")
     with pytest.raises(ScenarioError, match="picks up nothing"):
         snrgain.evaluate(broadside)
+    # given as an Fa it is carried to the reference all the same: refused too (it was taken, every wire then hearing
+    # it some 300 dB louder than the reference, +200 dBm of noise), naming the field
+    as_fa = broadside.replace('level = "S7"', 'fa = "70 dB"')
+    with pytest.raises(ScenarioError, match=r"\.fa: the reference antenna \(vertical\) picks up nothing"):
+        snrgain.evaluate(as_fa)
+    assert np.isfinite(snrgain.evaluate(as_fa.replace('"horizontal"', '"both"')).candidates[0].snr_gain_nominal_db[0])
 
 
 def _segment_whip(height="6 m", position=(0.0, 0.0)):

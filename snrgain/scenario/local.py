@@ -36,6 +36,11 @@ def local_levels_readable(
         where = f'noise.local {i + 1} ("{raw.name}")'
         src = resolve_local_source(raw, site, ref_m)
         if raw.level is None:
+            if raw.fa is not None and src.position_m is not None:
+                from snrgain.model import placed
+
+                if not placed.hears(reference, src, freq_hz, ref_m):  # the Fa is carried to the reference
+                    out.append((f"{where}.fa", _deaf_reference(reference, src)))
             continue
         on = (readers or {}).get(raw.read_on, reference)  # read_on: checked by name in snrgain.scenario.loading
         if src.position_m is not None:
@@ -68,6 +73,17 @@ def local_levels_readable(
                 )
             )
     return out
+
+
+def _deaf_reference(reference: Antenna, src) -> str:
+    """Why an Fa of a placed source cannot place it when the reference hears nothing of it."""
+    return (
+        f"the reference antenna ({reference.family}) picks up nothing of a {src.polarisation} source where it "
+        "stands, and a placed source's noise is scaled from what the reference hears of it (its fa is carried to "
+        "the reference, taken for P.372's monopole there), so every other antenna's share of it would be without "
+        "bound; give the polarisation it radiates ('both' for a source that radiates either way, as most do), or "
+        "check its orientation (a horizontal source exactly broadside to a vertical gives it no vertical field)"
+    )
 
 
 MIN_SOURCE_GAP_M = MIN_GAP_M
