@@ -85,6 +85,21 @@ def test_the_phase_branch_defaults_to_the_wire_models_own_velocity_factor(family
     assert "resonance" in res.branch[1]
 
 
+def test_the_textbook_termination_is_the_bands_own_z0():
+    # Readings at 1.83 and 3.6 MHz: the termination suggested is |Z0| less the far rod at the reading nearest the band
+    # listened on (the scenario's, passed as freq_hz), not at the first reading (a review found 599 ohm, the 1.6
+    # MHz |Z0|, suggested for a 1.83 MHz band whose |Z0| is 511 ohm); without a band the first, and it says where.
+    spec = {"family": "beverage", "length": "200 m", "height": "2.5 m", "ground": "moist loam"}
+    truth = from_spec(spec)
+    pairs = [cal.OpenShort(f, *_readings_of(truth.line(f), 200.0)) for f in (1.83e6, 3.6e6)]
+    for band, want in ((3.5e6, 3.6e6), (1.9e6, 1.83e6), (None, 1.83e6)):
+        res = cal.calibrate(cal.WireReadings(truth, pairs), freq_hz=band)
+        assert res.suggested_at_hz == want
+        assert res.suggested_termination_ohm == pytest.approx(abs(truth.line(want).z0) - truth.far_rod_ohm, rel=1e-6)
+        assert res.as_dict()["suggested_at_hz"] == want
+    assert abs(truth.line(3.6e6).z0) != pytest.approx(abs(truth.line(1.83e6).z0), rel=1e-3)  # the choice matters
+
+
 def test_branch_unwrapped_over_frequency():
     ant = from_spec({"family": "beverage", "length": "300 m", "height": "2.5 m", "ground": "moist loam"})
     freqs = [1.0e6, 1.4e6, 1.83e6, 2.5e6, 3.6e6]

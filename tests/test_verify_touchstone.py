@@ -202,7 +202,7 @@ def test_a_v1_file_of_ohms_is_refused_naming_the_format(model, tmp_path):
     assert "option line" in said and "normalised to R" in said
     out = CliRunner().invoke(cli, ["calibrate", str(_wire_toml(tmp_path / "w.toml", ("ohms.s1p", "open")))])
     assert out.exit_code == 2 and "ohms.s1p" in out.output and "Traceback" not in out.output, out.output
-    assert "suggested termination" not in out.output
+    assert "textbook termination" not in out.output
 
 
 @pytest.mark.parametrize(
@@ -269,7 +269,7 @@ def test_sweeps_that_disagree_on_z0_are_said_or_refused(model, tmp_path):
     out = CliRunner().invoke(cli, ["calibrate", str(toml)])
     assert out.exit_code == 2 and "Traceback" not in out.output, out.output
     assert "the sweeps disagree on |Z0|: short_v2.s1p (far end short)" in out.output
-    assert re.search(r"a factor (49\.\d|50), more than 3", out.output) and "suggested termination" not in out.output
+    assert re.search(r"a factor (49\.\d|50), more than 3", out.output) and "textbook termination" not in out.output
     toml = _wire_toml(tmp_path / "w.toml", ("open.s1p", "open"), ("short_far.s1p", "short"))
     out = CliRunner().invoke(cli, ["calibrate", str(toml), "--format", "json"])
     assert out.exit_code == 0, out.output

@@ -56,7 +56,8 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
     Open/short readings give Z0 = sqrt(Zoc Zsc) and tanh(gamma L) = sqrt(Zsc/Zoc): velocity factor,
     attenuation and Z0.  A quarter-wave resonance gives VF = 4 L f / c.  The ground's conductivity and
     permittivity are then fitted so that the wire model reproduces them, with uncertainties; the
-    suggested termination and transformer follow from the measured Z0.  A fit that runs to an end of the
+    textbook termination (|Z0| less the far rod, at the reading nearest the --scenario's band) and the
+    transformer follow from the measured Z0 ('rank --build' gives the resistor of best SNR gain).  A fit that runs to an end of the
     range searched (permittivity 1 to 100, conductivity 0.01 mS/m to 10 S/m) is said to be no ground, and
     --write refuses to write it.  A BOG lying on the soil also gets its height above the soil fitted with the
     soil held: the readings' [wire] ground if given, else with --scenario the scenario's (the --into
@@ -87,7 +88,8 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
             f"{len(data.sweeps)} sweep(s)"
         )
         with progress(None, f"calibrate: fitting {count}"):
-            res = cal.calibrate(data, expected_velocity_factor=expected_vf, permittivity=permittivity)
+            band_hz = read_frequency(sc_data) if sc_data is not None else None
+            res = cal.calibrate(data, expected_velocity_factor=expected_vf, permittivity=permittivity, freq_hz=band_hz)
     except cal.ReadingError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
     out = res.as_dict()
@@ -176,9 +178,11 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
             )
         lines_out.append(f"  or, over {over}: the wire's axis {where}; residual rms {h.residual_rms:.2f}")
     if res.suggested_termination_ohm is not None:
+        at = "the sweeps'" if res.suggested_at_hz is None else f"at {res.suggested_at_hz / 1e6:g} MHz"
         lines_out.append(
-            f"  suggested termination {res.suggested_termination_ohm:.0f} ohm (|Z0| less the far rod); "
-            f"transformer turns ratio {res.suggested_turns_ratio:.2f} to {ant.params.coax} ohm coax"
+            f"  textbook termination {res.suggested_termination_ohm:.0f} ohm (|Z0| {at} less the far rod; 'rank "
+            "--build' gives the resistor of best SNR gain under the site's noise, which can differ); transformer turns "
+            f"ratio {res.suggested_turns_ratio:.2f} to {ant.params.coax} ohm coax"
         )
     if scenario is not None:
         what = f"the measured line into {into!r}" if into else "the fitted ground into [site]"

@@ -585,6 +585,8 @@ class Calibration:
     (:func:`expected_branch`); None without open/short readings."""
     warnings: list[str] = field(default_factory=list)
     """What the readings as a whole leave in doubt: sweeps that disagree on |Z0|, an open/short Z0 a wire seldom has."""
+    suggested_at_hz: float | None = None
+    """The frequency of the open/short reading whose |Z0| the suggested termination takes (None: the sweeps')."""
 
     def as_dict(self) -> dict:
         """JSON-ready (SI units in the keys)."""
@@ -613,6 +615,7 @@ class Calibration:
         if self.suggested_termination_ohm is not None:
             out["suggested_termination_ohm"] = self.suggested_termination_ohm
             out["suggested_turns_ratio"] = self.suggested_turns_ratio
+            out["suggested_at_hz"] = self.suggested_at_hz
         if self.sweeps:
             out["sweeps"] = [sw.as_dict() for sw in self.sweeps]
         out["warnings"] = list(self.warnings)
@@ -649,11 +652,16 @@ def expected_branch(readings: WireReadings, given: float | None = None) -> tuple
 
 
 def calibrate(
-    readings: WireReadings, *, expected_velocity_factor: float | None = None, permittivity: float | None = None
+    readings: WireReadings,
+    *,
+    expected_velocity_factor: float | None = None,
+    permittivity: float | None = None,
+    freq_hz: float | None = None,
 ) -> Calibration:
     """Line constants from the readings, the ground fitted to them, and the termination and transformer they
-    suggest (|Z0| less the far rod; sqrt((|Z0| + feed rod) / Z_coax)).  ``expected_velocity_factor``: where the
-    phase's branch is taken (default: :func:`expected_branch`)."""
+    suggest (|Z0| less the far rod; sqrt((|Z0| + feed rod) / Z_coax)), from the open/short reading nearest
+    ``freq_hz`` (the band listened on; default the lowest reading's frequency), else the sweeps' median |Z0|.
+    ``expected_velocity_factor``: where the phase's branch is taken (default: :func:`expected_branch`)."""
     ant = readings.antenna
     expected_velocity_factor, branch_from = expected_branch(readings, expected_velocity_factor)
     constants = (
@@ -696,10 +704,14 @@ def calibrate(
     if getattr(ant.params, "line_model", "closed-form") == "exact":
         coarse = variant(ant, line_model="closed-form").computed_line
     fit = fit_ground(ant.computed_line, measured, permittivity=permittivity, coarse_line=coarse)
-    term = turns = None
+    term = turns = at_hz = None
     z0s = [sw.z0_magnitude_ohm for sw in swept if sw.z0_magnitude_ohm is not None]
     if constants or z0s:
-        z0 = abs(constants[0].z0) if constants else float(np.median(z0s))
+        if constants:
+            used = nearest_constants(constants, freq_hz) if freq_hz else constants[0]
+            z0, at_hz = abs(used.z0), used.freq_hz
+        else:
+            z0 = float(np.median(z0s))
         term = max(z0 - ant.far_rod_ohm, 0.0)
         turns = float(np.sqrt((z0 + ant.feed_rod_ohm) / ant.params.coax))
     height = None
@@ -718,6 +730,7 @@ def calibrate(
         readings.ground_source_text,
         branch=(expected_velocity_factor, branch_from) if constants else None,
         warnings=said,
+        suggested_at_hz=at_hz,
     )
 
 
