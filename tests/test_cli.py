@@ -208,6 +208,20 @@ def test_wire_command_beverage(runner):
     assert js["termination_search_ohm"] == [50.0, 3000.0]
 
 
+def test_wire_says_what_a_given_resistor_costs(runner):
+    # --termination 160 ohm: the wire's RDF and front-to-back are the given resistor's, and a line says what it costs
+    # against the fit (it printed the fit's 242 ohm as "the termination" and never said what 160 ohm gave up)
+    args = ["wire", "--frequency", "1.83 MHz", "--length", "176 m", "--height", "2.4 m", "--ground", "moist clay"]
+    res = runner.invoke(cli, [*args, "--termination", "160 ohm"])
+    assert res.exit_code == 0, res.output
+    given = next(line for line in res.output.splitlines() if line.strip().startswith("given:"))
+    js = json.loads(runner.invoke(cli, [*args, "--termination", "160 ohm", "--format", "json"]).output)
+    best = js["termination_answers"]["rdf"]
+    assert "given: 160 ohm" in given and f"{best['figure_db'] - js['rdf_db']:.2f} dB below the best" in given
+    assert f"{best['termination_ohm']:.0f} ohm" in given and best["figure_db"] >= js["rdf_db"]
+    assert "given:" not in runner.invoke(cli, args).output  # 'auto': the fit is the wire's own
+
+
 def test_wire_command_bog_where_it_lies(runner):
     base = ["wire", "--family", "bog", "--frequency", "1.83 MHz", "--length", "60 m"]
     grass = runner.invoke(cli, base)

@@ -187,6 +187,8 @@ def wire(
                 f"({out['far_ground_ohm']:.0f} ohm) = {out['textbook_termination_ohm']:.0f} ohm"
             )
         lines_out += termination_lines(out)
+        if str(termination).strip().lower() != "auto":
+            lines_out.append(given_termination_line(out))
     zin = out["feed_point_impedance_ohm"]
     exact = out["exact_turns_ratio"]
     lines_out += [
@@ -201,6 +203,26 @@ def wire(
 
 FB_FORMAT = "{:.1f}"
 """The wire's front-to-back [dB] as printed (through number_text: never "-0.0")."""
+
+
+def given_termination_line(out: dict) -> str:
+    """What the resistor given (--termination) costs against the fit of the termination's criterion: the RDF and
+    front-to-back of "this wire" are the given resistor's."""
+    from snrgain.units import number_text
+
+    answers = out["termination_answers"]
+    a = answers.get(out.get("termination_criterion", "rdf"), answers["rdf"])
+    best_rdf = answers["rdf"]
+    given = out["termination_ohm"]
+    lost = best_rdf["figure_db"] - out["rdf_db"]
+    return (
+        f"  given: {given:.0f} ohm (the wire above is built with it): RDF {out['rdf_db']:.1f} dB, {max(lost, 0.0):.2f} "
+        f"dB below the best, {best_rdf['termination_ohm']:.0f} ohm; front-to-back "
+        f"{number_text(out['front_to_back_db'], FB_FORMAT)} dB against "
+        f"{number_text(answers['front_to_back']['figure_db'], FB_FORMAT)} dB at "
+        f"{answers['front_to_back']['termination_ohm']:.0f} ohm"
+        + ("" if a is best_rdf else f" (the fit above is for {a['criterion'].replace('_', '-')})")
+    )
 
 
 def termination_lines(out: dict) -> list[str]:
