@@ -53,15 +53,15 @@ from snrgain.cli.options import (
 def calibrate(readings, example, expected_vf, permittivity, into, scenario, write_to, overwrite, fmt):
     """Turn analyser READINGS of a laid wire into its line constants and the soil's constants.
 
-    Open/short readings give Z0 = sqrt(Zoc Zsc) and tanh(gamma L) = sqrt(Zsc/Zoc): velocity factor,
-    attenuation and Z0.  A quarter-wave resonance gives VF = 4 L f / c.  The ground's conductivity and
-    permittivity are then fitted so that the wire model reproduces them, with uncertainties; the
-    textbook termination (|Z0| less the far rod, at the reading nearest the --scenario's band) and the
-    transformer follow from the measured Z0 ('rank --build' gives the resistor of best SNR gain).  A fit
-    that runs to an end of the range searched (permittivity 1 to 100, conductivity 0.01 mS/m to 10 S/m) is
-    said to be no ground, and --write refuses to write it.  A BOG lying on the soil also gets its height above the soil fitted with the
-    soil held: the readings' [wire] ground if given, else with --scenario the scenario's (the --into
-    candidate's own, else [site]'s), else moist loam; the output says which.  See --example for the file.
+    Open/short readings give Z0 = sqrt(Zoc Zsc) and tanh(gamma L) = sqrt(Zsc/Zoc): velocity factor, attenuation
+    and Z0. A quarter-wave resonance gives VF = 4 L f / c. The ground's conductivity and permittivity are then
+    fitted so that the wire model reproduces them, with uncertainties; the textbook termination (|Z0| less the
+    far rod, at the reading nearest the --scenario's band) and the transformer follow from the measured Z0
+    ('rank --build' gives the resistor of best SNR gain). A fit that runs to an end of the range searched
+    (permittivity 1 to 100, conductivity 0.01 mS/m to 10 S/m) is said to be no ground, and --write refuses to
+    write it. A BOG lying on the soil also gets its height above the soil fitted with the soil held: the
+    readings' [wire] ground if given, else with --scenario the scenario's (the --into candidate's own, else
+    [site]'s), else moist loam; the output says which. See --example for the file.
     """
     from snrgain.tools import calibrate as cal
 
