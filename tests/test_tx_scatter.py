@@ -872,3 +872,37 @@ def test_a_lines_fed_array_feels_the_vertical_as_its_currents_do():
     assert a["resonant"]["rdf_change_db"] == pytest.approx(b["resonant"]["rdf_change_db"], abs=0.02)
     assert a["resonant"]["front_to_back_db"] == pytest.approx(b["resonant"]["front_to_back_db"], abs=0.2)
     assert abs(a["resonant"]["rdf_change_db"]) < 1.0  # 0.58 wavelength from a resonant quarter wave
+
+
+def test_the_verticals_distance_is_the_antennas_closest_approach():
+    # A review placed a Beverage whose wire passes 10 m from the transmitting vertical and the rows said 91 m (its
+    # feed point's distance): the distance is now the closest approach of the wire (or of an array's elements).
+    from snrgain.antennas import from_spec
+    from snrgain.model.scatter import closest_approach_m
+
+    bev = from_spec(
+        {
+            "family": "beverage",
+            "length": "200 m",
+            "height": "2 m",
+            "bearing": 90,
+            "position": [0, 0],
+            "ground": "moist loam",
+        }
+    )
+    assert closest_approach_m(bev, (100.0, 10.0)) == pytest.approx(10.0)  # beside the middle of the wire
+    assert closest_approach_m(bev, (-30.0, 40.0)) == pytest.approx(50.0)  # behind its feed point
+    assert closest_approach_m(bev, (230.0, 40.0)) == pytest.approx(50.0)  # beyond its far end
+    assert closest_approach_m(bev, (100.0, 10.0), at_m=(0.0, 50.0)) == pytest.approx(40.0)  # the wire put elsewhere
+    pair = from_spec(
+        {
+            "family": "phased-verticals",
+            "positions": [[0, 0], [0, 30]],
+            "height": "6 m",
+            "bearing": 0,
+            "ground": "moist loam",
+        }
+    )
+    assert closest_approach_m(pair, (0.0, 40.0)) == pytest.approx(10.0)  # its nearer element, not the centre's 25 m
+    whip = from_spec({"family": "vertical", "height": "6 m", "position": [3, 4], "ground": "moist loam"})
+    assert closest_approach_m(whip, (0.0, 0.0)) == pytest.approx(5.0)

@@ -393,11 +393,30 @@ def tx_cost(
             "forward_gain_change_db": float(m["forward_gain_dbi"] - alone["forward_gain_dbi"]),
         }
     out["cost_db"] = -out[state]["rdf_change_db"]
+    out["distance_m"] = closest_approach_m(antenna, tx.position_m, at_m=at_m)
+    return out
+
+
+def closest_approach_m(antenna, point_m, *, at_m=None) -> float:
+    """How near ``antenna`` comes to a point of the plan [m]: a long wire's run from its feed point along its bearing,
+    an array's elements, else its place (an array's element centroid, the reference's place without one);
+    ``at_m``: the antenna's feed point (an array's centre) put there."""
     from snrgain.model.placed import antenna_point
 
-    p = antenna_point(antenna, tx.position_m)
-    out["distance_m"] = float(np.hypot(p[0] - tx.position_m[0], p[1] - tx.position_m[1]))
-    return out
+    q = np.asarray(point_m, dtype=float)
+    p = np.asarray(at_m, dtype=float) if at_m is not None else antenna_point(antenna, q)
+    if antenna.long_wire:
+        b = antenna.bearing_rad
+        u = np.array([np.sin(b), np.cos(b)])
+        t = float(np.clip((q - p) @ u, 0.0, antenna.length_m))
+        return float(np.hypot(*(p + t * u - q)))
+    pos = getattr(antenna, "positions", None)
+    if pos is not None and len(pos):
+        pts = np.asarray(pos, dtype=float)
+        if at_m is not None:
+            pts = pts - pts.mean(axis=0) + p
+        return float(np.min(np.hypot(*(pts - q).T)))
+    return float(np.hypot(*(p - q)))
 
 
 _EFFECTS: list = []  # the last scenario's (scenario, rows, notices): decisions asks for both
