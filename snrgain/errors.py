@@ -14,6 +14,10 @@ class ScenarioError(ValueError):
         super().__init__("\n".join(lines))
 
 
+class BandNeededError(ScenarioError):
+    """A file of several bands given to a command that answers one band (``--band NAME``): not an invalid file."""
+
+
 class SpecError(ValueError):
     """An antenna spec that cannot be built; ``problems`` lists (field path, message)."""
 

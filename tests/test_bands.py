@@ -95,6 +95,7 @@ def test_several_bands_on_the_command_line(tmp_path):
     assert "Station plan for every band" in res.stdout and "80 m: 3.55 MHz" in res.stdout
     res = runner.invoke(cli, ["report", str(SITE), "-o", str(tmp_path / "r.html")])
     assert res.exit_code == 2 and "--band NAME" in res.output
+    assert "one band at a time here" in res.output and "invalid scenario" not in res.output  # the file is valid
     res = runner.invoke(cli, ["report", str(SITE), "-o", str(tmp_path / "r.html"), "--band", "40 m"])
     assert res.exit_code == 0, res.output
     res = runner.invoke(cli, ["check", str(SITE)])

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import click
 
-from snrgain.errors import ReadingsError, ScenarioError, SpecError
+from snrgain.errors import BandNeededError, ReadingsError, ScenarioError, SpecError
 from snrgain.files import OutputExistsError, OutputWriteError
 from snrgain.units import QuantityError
 
@@ -225,6 +225,8 @@ def handle_errors(fn):
             fail(f"{exc.path} exists; pass --overwrite to replace it", EXIT_BAD_INPUT)
         except OutputWriteError as exc:
             fail(str(exc), EXIT_BAD_INPUT if exc.refused else EXIT_FAILURE)
+        except BandNeededError as exc:  # a valid file of several bands
+            fail(f"one band at a time here:\n{exc}", EXIT_BAD_INPUT)
         except ReadingsError as exc:
             n = len(exc.problems)
             fail(f"invalid readings ({n} problem{'s' if n != 1 else ''}):\n{exc}", EXIT_BAD_INPUT)

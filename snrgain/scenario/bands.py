@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import copy
 
-from snrgain.errors import ScenarioError
+from snrgain.errors import BandNeededError, ScenarioError
 from snrgain.problems import toml_repr
 
 MAX_BANDS = 12
@@ -212,7 +212,7 @@ def one_band(data: dict, band: str | None, label: str = "<scenario>") -> dict:
         return parts[0][1]
     names = [n for n, _ in parts]
     if band is None:
-        raise ScenarioError(
+        raise BandNeededError(
             label,
             [
                 (
