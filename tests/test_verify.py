@@ -445,3 +445,25 @@ def test_a_header_that_names_a_column_twice_is_an_input_error():
     text += "Q1ABC,FN42,Q9XYZ\n"
     with pytest.raises(ValueError, match=r"spots: line 1: the header names 'band' more than once"):
         lg.parse_spots_csv(text, "spots", lg.Problems())
+
+
+def test_a_lone_pair_and_the_header_read_as_words():
+    # "only 1 pairs" and "months [12], UTC hours [0, 2]" (Python lists) in the report, as a review read them
+    import pandas as pd
+
+    rows = [("east", 1, 1.0)] * 25 + [("east", 2, 2.0)]
+    groups = vf.summarise(pd.DataFrame(rows, columns=["target", "hour", "diff_db"]), ["east"], None, n_boot=50)
+    lone = next(g for g in groups if g.hour == 2)
+    assert lone.warnings == ("only 1 pair (fewer than 20): no verdict",)
+    two = vf.summarise(pd.DataFrame(rows[:2], columns=["target", "hour", "diff_db"]), ["east"], None, n_boot=50)
+    assert "only 2 pairs (fewer than 20): no verdict" in two[0].warnings
+
+
+def test_the_reports_header_lists_months_and_hours_as_words(tmp_path):
+    from tests.test_learn import A, B, WREN, _logs
+
+    pa, pb = _logs(tmp_path, 0.0, seed=11, stations=3)
+    r = vf.verify(WREN, a_name=A, b_name=B, log_a=pa, log_b=pb, n_boot=50, seed=1, predict_too=False)
+    head = vf.report_lines(r)[0]
+    assert "[" not in head and f"months {', '.join(map(str, r.months))}, UTC hours" in head
+

@@ -432,7 +432,7 @@ def verdict(g: Group, min_pairs: int) -> tuple[str | None, tuple[str, ...]]:
     warn = []
     if g.n < min_pairs:
         v = "too few pairs"
-        warn.append("no pairs: no verdict" if g.n == 0 else f"only {g.n} pairs (fewer than {min_pairs}): no verdict")
+        warn.append("no pairs: no verdict" if g.n == 0 else f"only {g.n} pair{'' if g.n == 1 else 's'} (fewer than {min_pairs}): no verdict")
     elif g.predicted_db is None:
         v = None
     elif _shown(g.high_db) < _shown(g.predicted_p10_db):
@@ -621,7 +621,8 @@ def verdict_sentence(r: VerifyResult, g: Group) -> str:
 
 def report_lines(r: VerifyResult) -> list[str]:
     out = [
-        f"{r.site}: {r.a} minus {r.b}, {r.band}, months {r.months}, UTC hours {r.hours}",
+        f"{r.site}: {r.a} minus {r.b}, {r.band}, months {', '.join(map(str, r.months))}, UTC hours "
+        f"{', '.join(map(str, r.hours))}",
         f"pairing: {r.rule}",
         f"{len(r.pairs):,} pairs placed",
         "",
