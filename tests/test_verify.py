@@ -460,10 +460,9 @@ def test_a_lone_pair_and_the_header_read_as_words():
 
 
 def test_the_reports_header_lists_months_and_hours_as_words(tmp_path):
-    from tests.test_learn import A, B, WREN, _logs
+    from tests.test_learn import WREN, A, B, _logs
 
     pa, pb = _logs(tmp_path, 0.0, seed=11, stations=3)
     r = vf.verify(WREN, a_name=A, b_name=B, log_a=pa, log_b=pb, n_boot=50, seed=1, predict_too=False)
     head = vf.report_lines(r)[0]
     assert "[" not in head and f"months {', '.join(map(str, r.months))}, UTC hours" in head
-

@@ -432,7 +432,8 @@ def verdict(g: Group, min_pairs: int) -> tuple[str | None, tuple[str, ...]]:
     warn = []
     if g.n < min_pairs:
         v = "too few pairs"
-        warn.append("no pairs: no verdict" if g.n == 0 else f"only {g.n} pair{'' if g.n == 1 else 's'} (fewer than {min_pairs}): no verdict")
+        pairs = "pair" if g.n == 1 else "pairs"
+        warn.append("no pairs: no verdict" if g.n == 0 else f"only {g.n} {pairs} (fewer than {min_pairs}): no verdict")
     elif g.predicted_db is None:
         v = None
     elif _shown(g.high_db) < _shown(g.predicted_p10_db):
