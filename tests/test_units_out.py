@@ -334,3 +334,17 @@ def test_the_noise_readings_column_and_the_preamp_column_are_named_plainly(feet_
     console.print(ranking_table(feet_results[1]))
     assert PREAMP_LEGEND in console.export_text().replace("\n", " ")
     assert PREAMP_LEGEND in html.unescape(_ranking(feet_results[1]))
+
+
+def test_a_long_caution_is_said_once_in_a_list_of_warnings():
+    # a guyed tower beside three antennas: its 60-word caution in full on the first warning, named on the others
+    from snrgain.outputs.messages import notice_text, notice_texts
+
+    near = [
+        Notice("near-structure", name, {"structure": "tower", "distance_m": d, "clearance_m": 30.0, "given": False})
+        for name, d in (("bev", 14.6), ("flag", 20.0), ("loop", 25.0))
+    ]
+    texts = notice_texts(near)
+    assert texts[0] == notice_text(near[0]) and "a tower is climbed" in texts[0]
+    assert all("a tower is climbed" not in t and t.endswith("the tower's caution above applies") for t in texts[1:])
+    assert [t.split(":")[0] for t in texts] == ["bev", "flag", "loop"]

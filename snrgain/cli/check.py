@@ -97,9 +97,9 @@ def _geometry_texts(sc) -> list[str]:
     plan points that look like a latitude and longitude), without computing any pattern, as sentences; lengths in the
     scenario's unit."""
     from snrgain.decide.lot import site_notices
-    from snrgain.outputs.messages import notice_text
+    from snrgain.outputs.messages import notice_texts
 
-    return [notice_text(n, unit=sc.site.length_unit) for n in site_notices(sc)]
+    return notice_texts(site_notices(sc), unit=sc.site.length_unit)
 
 
 def _lot(sc) -> None:

@@ -39,13 +39,13 @@ class BandResults:
         not use on the band (each band's :meth:`Results.notices_apart` against :meth:`built_names` of that band),
         counted by antenna instead (its name: how many, over every band)."""
         from snrgain.model.results import apart_counts
-        from snrgain.outputs.messages import notice_text
+        from snrgain.outputs.messages import notice_text, notice_texts
 
         per_band, counts, seen = [], {}, set()
         for name, r in self.bands:
             said, apart = r.notices_apart(self.built_names(name))
             unit = r.site.get("length_unit", "m")
-            per_band.append((name, [notice_text(n, unit=unit) for n in said]))
+            per_band.append((name, notice_texts(said, unit=unit)))
             once = []  # a warning said word for word on several bands counts once, as it would be said once
             for n in apart:
                 key = (n.antenna, notice_text(n, unit=unit))

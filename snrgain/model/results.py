@@ -224,17 +224,17 @@ class Results:
     @property
     def warnings(self) -> list[str]:
         """The notices as sentences."""
-        from snrgain.outputs.messages import notice_text
+        from snrgain.outputs.messages import notice_texts
 
-        return [notice_text(n, unit=self.site.get("length_unit", "m")) for n in self.notices]
+        return notice_texts(self.notices, unit=self.site.get("length_unit", "m"))
 
     def warnings_apart(self) -> tuple[list[str], dict[str, int]]:
         """(said, apart): :attr:`warnings` but those on candidates the station plan does not build
         (:meth:`notices_apart`), which are counted by antenna instead (its name: how many)."""
-        from snrgain.outputs.messages import notice_text
+        from snrgain.outputs.messages import notice_texts
 
         said, apart = self.notices_apart(self.built_names())
-        return [notice_text(n, unit=self.site.get("length_unit", "m")) for n in said], apart_counts(self, apart)
+        return notice_texts(said, unit=self.site.get("length_unit", "m")), apart_counts(self, apart)
 
     def built_names(self, plan_antennas=None) -> frozenset[str] | None:
         """The names of what the station plan builds (``plan_antennas``: another plan's antennas, a plan across

@@ -198,6 +198,28 @@ def _overhead_words(v: dict) -> str:
     return head + ("comes back " + " and ".join(back) if len(back) == 2 else f"comes back only {back[0]}")
 
 
+_SAID_ONCE = {
+    _STRUCTURE_CAUTION: "; the tower's caution above applies",
+    _DETUNE_CAUTION: "; detune it while receiving, as above",
+}
+"""Long cautions of the trade that a list of warnings says in full once: later warnings name them instead."""
+
+
+def notice_texts(notices, unit: str = "m") -> list[str]:
+    """:func:`notice_text` of each notice in turn, a long caution (:data:`_SAID_ONCE`) said in full by the first
+    warning that carries it and named by the later ones (a tower beside several antennas said it for each)."""
+    out, said = [], set()
+    for n in notices:
+        text = notice_text(n, unit=unit)
+        for caution, short in _SAID_ONCE.items():
+            if text.endswith(caution):
+                if caution in said:
+                    text = text[: -len(caution)] + short
+                said.add(caution)
+        out.append(text)
+    return out
+
+
 def notice_text(n: Notice, unit: str = "m") -> str:
     """One notice as a sentence (prefixed by the antenna's name where it concerns one); lengths in ``unit`` (the
     scenario's: "m" or "ft")."""

@@ -14,7 +14,7 @@ from datetime import UTC, datetime
 import numpy as np
 
 from snrgain.outputs import plots
-from snrgain.outputs.messages import hops_text, notice_text
+from snrgain.outputs.messages import hops_text, notice_texts
 from snrgain.outputs.output import PREAMP_LEGEND, elevation_span, ground_text, preamp_cell
 from snrgain.outputs.style import listening_order, looks_of
 from snrgain.units import number_text, s_units, signed_text
@@ -259,12 +259,12 @@ def _ranking(r) -> str:
     said, apart = r.notices_apart(r.built_names())
     unit = r.site.get("length_unit", "m")
     if said:
-        out.append("<ul>" + "".join(f"<li>{_e(notice_text(n, unit=unit))}</li>" for n in said) + "</ul>")
+        out.append("<ul>" + "".join(f"<li>{_e(t)}</li>" for t in notice_texts(said, unit=unit)) + "</ul>")
     if apart:
         what = "warning" if len(apart) == 1 else "warnings"
         out.append(
             f"<details><summary>{len(apart)} more {what} on candidates the station plan does not build</summary><ul>"
-            + "".join(f"<li>{_e(notice_text(n, unit=unit))}</li>" for n in apart)
+            + "".join(f"<li>{_e(t)}</li>" for t in notice_texts(apart, unit=unit))
             + "</ul></details>"
         )
     return "\n".join(out)
