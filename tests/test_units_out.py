@@ -348,3 +348,23 @@ def test_a_long_caution_is_said_once_in_a_list_of_warnings():
     assert texts[0] == notice_text(near[0]) and "a tower is climbed" in texts[0]
     assert all("a tower is climbed" not in t and t.endswith("the tower's caution above applies") for t in texts[1:])
     assert [t.split(":")[0] for t in texts] == ["bev", "flag", "loop"]
+
+
+def test_json_keeps_every_warning_whole_and_the_text_says_a_caution_once(tmp_path):
+    from tests.scenario_text import scenario_text
+
+    wires = "".join(
+        f'[[candidate]]\nname = "B{k}"\nfamily = "beverage"\nlength = "150 m"\nheight = "2 m"\nbearing = 45\n'
+        f"position = [{60 + 6 * k}, 0]\n\n"
+        for k in range(3)
+    )
+    site = 'structures = [{ name = "tower", position = [70, 40], height = "30 m" }]\n'
+    path = tmp_path / "tower.toml"
+    path.write_text(scenario_text(site_extra=site, candidates=wires), encoding="utf-8")
+    runner = CliRunner()
+    text = runner.invoke(cli, ["rank", str(path), "--all-warnings"])
+    assert text.exit_code == 0, text.output
+    assert text.stderr.count("a tower is climbed") == 1 and "the tower's caution above applies" in text.stderr
+    js = json.loads(runner.invoke(cli, ["rank", str(path), "--format", "json"]).stdout)
+    whole = [w for w in js["warnings"] if "comes within" in w]
+    assert len(whole) == 3 and all("a tower is climbed" in w for w in whole)

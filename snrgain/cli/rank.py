@@ -72,7 +72,7 @@ def rank(scenario, fmt, build, all_warnings, output, overwrite, allow_long, nsid
     from snrgain.cli.options import band_names, load_scenario, progress
     from snrgain.model.pipeline import evaluate, evaluate_bands
     from snrgain.outputs import output as out
-    from snrgain.outputs.messages import apart_text
+    from snrgain.outputs.messages import apart_text, said_once
 
     check_output(output, overwrite=overwrite)
     fmt = check_suffix(output, fmt, {"json": (".json",), "csv": (".csv",), "table": (".txt",)})
@@ -95,7 +95,7 @@ def rank(scenario, fmt, build, all_warnings, output, overwrite, allow_long, nsid
         else:
             sc = load_scenario(scenario, nside=nside, p372_dir=p372_dir, reference=reference, band=band)
             results = evaluate(sc, allow_long=allow_long)
-    said, apart = (results.warnings, {}) if all_warnings else results.warnings_apart()
+    said, apart = (said_once(results.warnings), {}) if all_warnings else results.warnings_apart()
     for w in said:
         click.echo(f"warning: {w}", err=True)
     if apart:

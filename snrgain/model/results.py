@@ -224,9 +224,9 @@ class Results:
     @property
     def warnings(self) -> list[str]:
         """The notices as sentences."""
-        from snrgain.outputs.messages import notice_texts
+        from snrgain.outputs.messages import notice_text
 
-        return notice_texts(self.notices, unit=self.site.get("length_unit", "m"))
+        return [notice_text(n, unit=self.site.get("length_unit", "m")) for n in self.notices]
 
     def warnings_apart(self) -> tuple[list[str], dict[str, int]]:
         """(said, apart): :attr:`warnings` but those on candidates the station plan does not build

@@ -206,11 +206,15 @@ _SAID_ONCE = {
 
 
 def notice_texts(notices, unit: str = "m") -> list[str]:
-    """:func:`notice_text` of each notice in turn, a long caution (:data:`_SAID_ONCE`) said in full by the first
-    warning that carries it and named by the later ones (a tower beside several antennas said it for each)."""
+    """:func:`notice_text` of each notice in turn, a long caution said once (:func:`said_once`)."""
+    return said_once([notice_text(n, unit=unit) for n in notices])
+
+
+def said_once(texts: list[str]) -> list[str]:
+    """Warnings as a list says them: a long caution (:data:`_SAID_ONCE`) in full in the first that carries it, named
+    in the later ones (a tower beside several antennas said it for each); each warning alone (JSON) keeps it whole."""
     out, said = [], set()
-    for n in notices:
-        text = notice_text(n, unit=unit)
+    for text in texts:
         for caution, short in _SAID_ONCE.items():
             if text.endswith(caution):
                 if caution in said:
