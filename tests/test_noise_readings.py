@@ -145,7 +145,7 @@ def test_readings_the_local_source_swamps_say_so(tmp_path):
     plan = [(f"2026-12-02T0{h}:10:00Z", "TX vertical", "rise") for h in (0, 2, 4, 6)]
     (tmp_path / "r.toml").write_text(nr.synthesise(WREN, offset_db=-20.0, plan=plan, noise_db=1.5, seed=2))
     f = nr.fit(nr.load_readings(tmp_path / "r.toml"), WREN)
-    assert any("under a fifth" in n for n in f.notes)
+    assert any("under a fifth" in n and "hears the local sources less" in n for n in f.notes)
     out = CliRunner().invoke(
         cli, ["noise-readings", WREN, str(tmp_path / "r.toml"), "--write", str(tmp_path / "w.toml")]
     )
@@ -359,3 +359,13 @@ def test_a_reading_given_twice_is_said(tmp_path):
     (tmp_path / "once.toml").write_text(nr.EXAMPLE)
     alone = CliRunner().invoke(cli, ["noise-readings", WREN, str(tmp_path / "once.toml")])
     assert alone.exit_code == 0 and "same reading" not in alone.output
+
+
+def test_what_to_read_instead_follows_what_swamps_the_readings():
+    # the advice named local sources on a site that places none (a review): it follows what dominates the readings
+    from snrgain.tools.noisereadings import quieter_reading
+
+    sky, chain = np.array([4000.0, 5000.0]), np.array([300.0, 300.0])
+    assert "local sources" in quieter_reading(sky, chain, True)
+    assert "atmospheric and galactic" in quieter_reading(sky, chain, False)
+    assert all("preamplifier" in quieter_reading(chain, sky, local) for local in (False, True))

@@ -651,15 +651,32 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
     if n < 3:
         notes.append(f"only {n} usable reading(s): take readings over several evenings to know the spread")
     if np.max(share) < 0.2:
+        instead = quieter_reading(other, t_e, bool(data.get("noise", {}).get("local")))
         notes.append(
             "man-made noise is under a fifth of every reading: the other components and the chain dominate, so the "
-            "man-made level is poorly determined; read on an antenna that hears the local sources less"
+            f"man-made level is poorly determined; {instead}"
         )
     from snrgain.tools.learn import beyond_p372_note
 
     beyond = beyond_p372_note(env, float(freq), before + delta)
     level = [beyond] if beyond else []
     return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes, level)
+
+
+def quieter_reading(other: np.ndarray, t_e: np.ndarray, has_local: bool) -> str:
+    """What to read instead when man-made noise is a small share of every reading: what dominates them decides (the
+    chain's own noise, the local sources the scenario places, else the sky's atmospheric and galactic noise)."""
+    if np.median(t_e) > np.median(other):
+        return (
+            "the receiver chain's own noise is most of the readings: read through a preamplifier, or on an antenna "
+            "that delivers more of the sky's noise"
+        )
+    if has_local:
+        return "read on an antenna that hears the local sources less"
+    return (
+        "the atmospheric and galactic noise are most of the readings: read when they are lower (daytime, or a "
+        "quieter season), when man-made noise is a larger share"
+    )
 
 
 def fit_lines(f: NoiseFit) -> list[str]:
