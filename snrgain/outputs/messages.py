@@ -553,7 +553,8 @@ def notice_text(n: Notice, unit: str = "m") -> str:
     if n.code == "source-in-keep-out":
         return (
             f"noise source {v['source']!r} lies inside the keep-out area {v['area']!r} (expected of a device in a "
-            "building there: nothing to change; said in case its position was meant to be elsewhere)"
+            "building or a line in its corridor there: nothing to change; said in case its position was meant to be "
+            "elsewhere)"
         )
     if n.code == "level-on-directional":
         return (
