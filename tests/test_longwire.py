@@ -734,3 +734,25 @@ def test_wave_forms_give_the_feed_current_forms(family):
     g_all = ant.gain_linear(f, az2, el2)
     assert np.all(g_all[-5:] == 0.0)
     np.testing.assert_allclose(g_all[:-5], ant.gain_linear(f, az, el), rtol=1e-12)
+
+
+def test_the_length_rule_takes_a_line_a_hair_faster_than_light():
+    # over a ground of nearly air's constants (0.01 mS/m, permittivity 1) the line model gives a velocity factor of
+    # 1.0005; the length rule refused it, and rank and wire stopped with "velocity_factor must lie in (0, 1]"
+    from snrgain.physics.lines import max_effective_length_m
+
+    lam = C_M_PER_S / 1.83e6
+    fast = max_effective_length_m(lam, velocity_factor=1.0005, elevation_rad=np.radians(20.0))
+    assert fast == pytest.approx(lam / (4 * (1 / 1.0005 - np.cos(np.radians(20.0)))))
+    assert max_effective_length_m(lam, velocity_factor=1.2, elevation_rad=np.radians(20.0)) == float("inf")
+    with pytest.raises(ValueError, match="velocity_factor must be > 0"):
+        max_effective_length_m(lam, velocity_factor=0.0)
+    wire = from_spec(
+        {
+            "family": "beverage",
+            "length": "244 m",
+            "height": "2.5 m",
+            "ground": {"conductivity": "0.01 mS/m", "permittivity": 1},
+        }
+    )
+    assert wire.line(1.83e6).velocity_factor > 1.0  # the case met: the model's own line

@@ -362,10 +362,12 @@ def max_effective_length_m(wavelength_m: float, *, velocity_factor: float, eleva
 
     The length at which the wave on the wire (velocity factor k) and the
     incoming wave at elevation alpha drift 90 deg apart over the wire
-    (common practice; the rule of travelling-wave antenna design).
+    (common practice; the rule of travelling-wave antenna design).  A wave on the wire as fast as the incoming
+    one's projection along it or faster (over a ground of nearly air's constants the line model can give a velocity
+    factor a hair above 1) never drifts 90 deg: no bound (inf).
     """
-    if not 0 < velocity_factor <= 1:
-        raise ValueError(f"velocity_factor must lie in (0, 1], got {velocity_factor!r}")
+    if not velocity_factor > 0:
+        raise ValueError(f"velocity_factor must be > 0, got {velocity_factor!r}")
     denom = 1.0 / velocity_factor - np.cos(elevation_rad)
     if denom <= 0:
         return float("inf")
