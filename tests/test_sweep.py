@@ -32,6 +32,9 @@ def test_parse_ranges_and_lists():
     "text, says",
     [
         ("Beverage: length = 150 m to 350 m by 0 m", "must not be zero"),
+        ("Beverage: length = 100 m to 200 m by 1e400 m", "step '1e400 m' is not a finite number"),
+        ("Beverage: length = 1e400 m to 2e400 m by 1 m", "start '1e400 m' is not a finite number"),
+        ("Beverage: length = 1 m to nan m by 1 m", "cannot read the range's stop 'nan m'"),
         ("Beverage: length = 150 m to 350 m by -10 m", "empty"),
         ("Beverage: length = 350 m to 150 m by 10 m", "empty"),
         ("Beverage: length = 150 m to 350 ft by 10 m", "one unit"),
@@ -443,7 +446,7 @@ def test_a_listed_quantity_is_a_number_with_its_unit_in_the_header(tmp_path):
     assert {float(r["Beverage toward Europe: length [m]"]) for r in rows} == {150.0, 200.0}
     # one key varied twice is refused though its two columns are named in two units
     twice = CliRunner().invoke(cli, [*args, "--overwrite", "--vary", "Beverage toward Europe: length = 600 ft, 700 ft"])
-    assert twice.exit_code == 2 and "the same key is varied twice" in twice.stderr
+    assert twice.exit_code == 2 and "Beverage toward Europe: length is varied twice" in twice.stderr
 
 
 # A list key (time.months, time.utc_hours) takes a bracketed list as one value: "months = [12, 1], [6, 7]" was each

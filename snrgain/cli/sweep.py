@@ -79,8 +79,9 @@ def sweep(scenario, varies, output, spread, dask_address, overwrite, allow_long,
     sw.output_format(output)
     parsed = [sw.parse_vary(v) for v in varies]
     keys = [(v.table, v.key) for v in parsed]  # one key in two units has two columns' names
-    if len(set(keys)) != len(keys):
-        raise ValueError("--vary: the same key is varied twice")
+    twice = next((k for i, k in enumerate(keys) if k in keys[:i]), None)
+    if twice is not None:
+        raise ValueError(f"--vary: {twice[0]}: {twice[1]} is varied twice; vary each key once (a list or a range)")
     data, label, base_dir = read_source(Path(scenario))
     from snrgain.cli.options import band_names
 

@@ -96,7 +96,10 @@ def _term(text: str, what: str, arg: str) -> tuple[float, str]:
     m = _TERM.match(text)
     if m is None:
         raise VaryError(arg, f"cannot read the range's {what} {text.strip()!r}: write a number and a unit")
-    return float(m.group(1)), (m.group(2) or "").strip()
+    value = float(m.group(1))
+    if not math.isfinite(value):
+        raise VaryError(arg, f"the range's {what} {text.strip()!r} is not a finite number")
+    return value, (m.group(2) or "").strip()
 
 
 def _scalar(item: str):
@@ -197,7 +200,7 @@ def parse_vary(text: str) -> Vary:
             raise VaryError(
                 text, f"give the start, stop and step in one unit; got {ua or 'none'}, {ub or 'none'}, {us or 'none'}"
             )
-        if step == 0 or not math.isfinite(step):
+        if step == 0:
             raise VaryError(text, "the step must not be zero")
         if (b - a) * step < 0:
             raise VaryError(text, f"the range is empty: from {a:g} the step {step:g} never reaches {b:g}")
