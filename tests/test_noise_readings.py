@@ -297,6 +297,19 @@ def test_a_receiver_named_by_a_list_is_an_input_error(tmp_path):
     assert any(p.endswith(".receiver") and "as text; got []" in m for p, m in err.value.problems)
 
 
+def test_a_receiver_named_twice_is_an_input_error(tmp_path):
+    # the second table of one name was taken silently, the later S-meter table winning for every reading on it
+    text = '[[receiver]]\nname = "rx"\ns_meter = [["S5", -80], ["S9", -50]]\n'
+    text += '[[receiver]]\nname = "rx"\ns_meter = [["S1", -100], ["S9", -50]]\n'
+    text += _reading("2026-12-02T00:40:00Z", 's_meter = "S7"\nbandwidth = "10 kHz"\nreceiver = "rx"')
+    (tmp_path / "r.toml").write_text(text)
+    from snrgain.errors import ReadingsError
+
+    with pytest.raises(ReadingsError) as err:
+        nr.load_readings(tmp_path / "r.toml")
+    assert ("receiver[2].name", "'rx' is already used by receiver[1]; name each once") in err.value.problems
+
+
 def test_one_reading_that_holds_little_man_made_noise_determines_nothing(tmp_path):
     # The offset's tolerance rests on at least one reading's least uncertainty (1 dB) over the readings'
     # sensitivities: one reading on the demo's TX vertical 47 dB over the load, whose man-made share is 0.3 %, was
