@@ -332,7 +332,26 @@ def test_an_outlier_is_named_not_called_converged():
     bad[3] = Reading(bad[3].antenna, bad[3].level_dbm + 6.0, "loop 60", 2.0)
     res = locate(bad, freq_hz=F, bandwidth_hz=500.0)
     assert "converged" not in res.message and "loop 60" in res.message
-    assert [o[0] for o in res.outliers] == ["loop 60"]
+    assert [o[0] for o in res.outliers] == ["loop 60"] and res.outlier_readings == [3]
+    # readings that share a label: the one missed is named by its place in the file, and only it is marked
+    same = [Reading(r.antenna, r.level_dbm, "loop", r.uncertainty_db) for r in bad]
+    res = locate(same, freq_hz=F, bandwidth_hz=500.0)
+    assert res.outlier_readings == [3] and "loop (reading 4) (" in res.message
+
+
+def test_the_command_marks_the_reading_missed_not_every_reading_of_its_antenna(tmp_path):
+    # the example's readings and a second reading on its vertical, 8 dB off: both lines of "vertical" were marked
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    runner = CliRunner()
+    extra = '\n[[reading]]\nantenna = "vertical"\nlevel = "-90 dBm"\n'
+    text = runner.invoke(cli, ["locate", "--example"]).stdout + extra
+    (tmp_path / "r.toml").write_text(text, encoding="utf-8")
+    res = runner.invoke(cli, ["locate", str(tmp_path / "r.toml")])
+    rows = [ln for ln in res.stdout.splitlines() if ln.strip().startswith("vertical")]
+    assert len(rows) == 2 and "missed by" not in rows[0] and "missed by" in rows[1], res.output
 
 
 def _loop_file(levels, vertical):

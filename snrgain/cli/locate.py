@@ -263,9 +263,9 @@ def _lines(res, out, side=None, length_unit="m") -> list[str]:
     lines.append(
         f"  diffuse background: {bg}; residual rms {res.residual_rms_db:.2f} dB over {len(res.readings_dbm)} readings"
     )
-    missed = {lab: (m, u) for lab, m, u in res.outliers}
-    for entry in out["readings"]:
-        miss = missed.get(entry["label"])
+    missed = {k: (m, u) for k, (_, m, u) in zip(res.outlier_readings, res.outliers)}
+    for k, entry in enumerate(out["readings"]):
+        miss = missed.get(k)
         flag = "" if miss is None else f"  missed by {miss[0]:+.1f} dB (over its {miss[1]:g} dB)"
         lines.append(
             f"    {entry['label']:<16} read {entry['level_dbm']:7.1f} dBm, fitted {entry['fitted_dbm']:7.1f} dBm{flag}"

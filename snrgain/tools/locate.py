@@ -349,6 +349,8 @@ class LocateResult:
     """The fitted diffuse background's share of each reading [dBm]."""
     placed: bool = False
     """The sources were fitted as placed ones at the readings file's distances (``locate(near=...)``)."""
+    outlier_readings: list[int] = field(default_factory=list)
+    """The index (from 0, in the file's order) of each of :attr:`outliers`' readings: labels may repeat."""
 
 
 def _symmetric_front_back(antenna, freq_hz) -> bool:
@@ -533,12 +535,13 @@ def locate(
             )
         )
     ok = bool(ok_cov and all(f.bearing_sigma_deg <= MAX_BEARING_SIGMA_DEG for f in fitted))
-    outliers = [
-        (r.label, float(p - lv), float(r.uncertainty_db))
-        for r, p, lv in zip(readings, predicted, levels)
-        if abs(p - lv) > r.uncertainty_db
-    ]
-    named = ", ".join(f"{lab} ({miss:+.1f} dB, allowed {u:g})" for lab, miss, u in outliers)
+    missed = [k for k, (r, p, lv) in enumerate(zip(readings, predicted, levels)) if abs(p - lv) > r.uncertainty_db]
+    outliers = [(readings[k].label, float(predicted[k] - levels[k]), float(readings[k].uncertainty_db)) for k in missed]
+    labels = [r.label for r in readings]
+    named = ", ".join(
+        f"{lab}{f' (reading {k + 1})' if labels.count(lab) > 1 else ''} ({miss:+.1f} dB, allowed {u:g})"
+        for k, (lab, miss, u) in zip(missed, outliers)
+    )
     count = "1 reading misses" if len(outliers) == 1 else f"{len(outliers)} readings miss"
     if ok and outliers:
         msg = (
@@ -602,6 +605,7 @@ def locate(
         10 * np.log10(np.maximum(source_temps(x) * ktb_g, 1e-300)),
         10 * np.log10(np.maximum(10 ** (b / 10) * t_bg * ktb_g, 1e-300)),
         near is not None,
+        missed,
     )
 
 
@@ -867,7 +871,10 @@ def as_dict(res: LocateResult, *, freq_hz: float, bandwidth_hz: float) -> dict:
         "notes": res.notes,
         "residual_rms_db": res.residual_rms_db,
         "sources": [vars(s) for s in res.sources],
-        "outliers": [{"label": lab, "miss_db": m, "uncertainty_db": u} for lab, m, u in res.outliers],
+        "outliers": [
+            {"reading": k + 1, "label": lab, "miss_db": m, "uncertainty_db": u}
+            for k, (lab, m, u) in zip(res.outlier_readings, res.outliers)
+        ],
         "placed": res.placed,
         "readings": [
             {"label": lab, "level_dbm": lv, "fitted_dbm": p, "sources_dbm": src}
