@@ -829,6 +829,16 @@ def test_a_pattern_table_is_read_without_the_files_ground_and_a_combination_is_r
     res = CliRunner().invoke(cli, ["locate", str(rf), "--format", "json"])
     assert res.exit_code == 0, res.output
     assert json.loads(res.stdout)["ok"] and "ground" not in res.stderr
+    # A bearing on a reading of the pattern table: it cannot be turned (it was said to "hear all round")
+    turned = _example().replace('family = "vertical"\nheight = "18 m"\n', table)
+    rf.write_text(turned.replace('antenna = "vertical"\n', 'antenna = "vertical"\nbearing = 90\n'))
+    res = CliRunner().invoke(cli, ["locate", str(rf)])
+    assert res.exit_code == 2 and "a tabulated cannot be turned by a reading's bearing" in res.stderr, res.output
+    assert "hears all round" not in res.stderr
+    no_file = turned.replace('file = "patterns/cardioid-pair.csv"\n', "")
+    rf.write_text(no_file.replace('antenna = "vertical"\n', 'antenna = "vertical"\nbearing = 90\n'))
+    res = CliRunner().invoke(cli, ["locate", str(rf)])  # the table's own problem said in the same run
+    assert res.exit_code == 2 and "antenna.vertical.file: required key is missing" in res.stderr, res.output
     # A combination is made of a scenario's antennas, which a readings file has not: said, with the families taken.
     rf.write_text(_example().replace('family = "vertical"\nheight = "18 m"\n', 'family = "combination"\n'))
     res = CliRunner().invoke(cli, ["locate", str(rf)])

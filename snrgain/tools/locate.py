@@ -241,7 +241,13 @@ def load_readings(path: str | Path) -> NoiseReadings:
         turns = family is not None and "bearing" in family.params.model_fields
         where = item_label("reading", i, None)
         if r.bearing is not None and family is not None and not turns:
-            problems.append((f"{where}.bearing", f"a {spec['family']} has no bearing: it hears all round"))
+            try:
+                with lengths_said_in(length_unit_written(data) or "m"):
+                    fixed = build(spec, f"antenna.{r.antenna}", freq_hz=rf.frequency)
+            except SpecError as exc:  # its own problems too, in the same run
+                problems.extend(exc.problems)
+                fixed = None
+            problems.append((f"{where}.bearing", _no_bearing(spec["family"], fixed, rf.frequency)))
             continue
         if r.bearing is None and turns and "bearing" not in spec:
             problems.append(
@@ -273,6 +279,21 @@ def load_readings(path: str | Path) -> NoiseReadings:
     ground = data.get("ground", "moist loam")
     said = ground if isinstance(ground, str) else "the file's ground constants"
     return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances, unit, make_ground(rf.ground), said)
+
+
+def _no_bearing(family: str, antenna, freq_hz: float) -> str:
+    """Why a reading's bearing cannot turn an antenna of ``family`` (built as ``antenna``, None where it could not
+    be): one that hears all round (its gain the same to 0.05 dB every 30 deg at 10 deg elevation) has nothing to
+    turn; another (a pattern table) is read as it is written."""
+    if antenna is not None:
+        az = np.radians(np.arange(0.0, 360.0, 30.0))
+        g = antenna.gain_linear(freq_hz, az, np.full(az.size, np.radians(10.0)))
+        if np.all(g > 0) and 10 * np.log10(float(np.max(g) / np.min(g))) < 0.05:
+            return f"a {family} has no bearing: it hears all round"
+    return (
+        f"a {family} cannot be turned by a reading's bearing: its pattern is read as it is given; write each "
+        "direction it was read in as an [antenna.*] table of its own (its pattern turned), or leave the bearing out"
+    )
 
 
 def check_distances(data: NoiseReadings, n_sources: int, path) -> None:
