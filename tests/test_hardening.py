@@ -741,3 +741,19 @@ def test_ctrl_c_during_a_dask_sweep_gives_one_line_and_no_worker_tracebacks(tmp_
     assert b"Traceback" not in stderr and b"CancelledError" not in stderr, stderr.decode()[-3000:]
     assert stderr.decode().strip().endswith("stopped by Ctrl-C; no output was left half-written")
     assert not out.exists() and not any(tmp_path.iterdir())
+
+
+def test_a_refused_value_is_quoted_with_its_invisible_characters_escaped(tmp_path):
+    # a NUL or a direction override in a refused value was printed raw: U+202E reverses the rest of the terminal line
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    text = (SCENARIOS / "alder-hollow.toml").read_text(encoding="utf-8")
+    frequency = next(line for line in text.splitlines() if line.startswith("frequency"))
+    for raw, escaped in (("\u202e", "\\u202e"), ("\x00", "\\x00"), ("\u200b", "\\u200b")):
+        path = tmp_path / "s.toml"  # written with TOML's own escape (a raw NUL is not TOML)
+        path.write_text(text.replace(frequency, f'frequency = "1.83 MHz\\u{ord(raw):04x}"'), encoding="utf-8")
+        res = CliRunner().invoke(cli, ["check", str(path)])
+        assert res.exit_code == 2 and raw not in res.stderr, repr(res.stderr)
+        assert f'cannot read "1.83 MHz{escaped}" as frequency' in res.stderr

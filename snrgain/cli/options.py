@@ -200,8 +200,22 @@ def progress(total: int | None, what: str) -> Iterator[Progress]:
 
 
 def fail(message: str, code: int) -> None:
-    click.echo(f"snrgain: {message}", err=True)
+    click.echo(f"snrgain: {shown(message)}", err=True)
     sys.exit(code)
+
+
+def shown(text: str) -> str:
+    """``text`` as a terminal shows it safely: control characters but the line break and tab, and invisible format
+    characters (a direction override reverses the rest of the line, a zero-width space hides), written as escapes
+    (``\\x00``, ``\\u202e``): a refused value is quoted as it was written, not acted on by the terminal."""
+    import unicodedata
+
+    def one(ch: str) -> str:
+        if ch in "\n\t" or unicodedata.category(ch) not in ("Cc", "Cf", "Zl", "Zp"):
+            return ch
+        return f"\\x{ord(ch):02x}" if ord(ch) < 0x100 else f"\\u{ord(ch):04x}"
+
+    return "".join(map(one, text))
 
 
 def handle_errors(fn):
