@@ -362,3 +362,18 @@ def test_a_reference_resistance_not_above_0_is_refused(tmp_path, head, said):
     assert "the reference resistance must be more than 0 ohm" in str(err.value)
     out = CliRunner().invoke(cli, ["calibrate", str(_wire_toml(tmp_path / "w.toml", ("sweep.s1p", "open")))])
     assert out.exit_code == 2 and "sweep.s1p line" in out.output and "Traceback" not in out.output, out.output
+
+
+def test_a_sweep_file_that_is_missing_or_a_folder_is_said_as_such(tmp_path):
+    from snrgain.errors import ReadingsError
+
+    (tmp_path / "folder.s1p").mkdir()
+    (tmp_path / "wire.toml").write_text(
+        '[wire]\nfamily = "beverage"\nlength = "250 m"\nheight = "2 m"\n\n'
+        '[[sweep]]\nfile = "gone.s1p"\nfar_end = "open"\n\n[[sweep]]\nfile = "folder.s1p"\nfar_end = "short"\n'
+    )
+    with pytest.raises(ReadingsError) as err:
+        cal.load_readings(tmp_path / "wire.toml")
+    said = dict(err.value.problems)
+    assert said["sweep[1].file"].endswith("gone.s1p does not exist")
+    assert said["sweep[2].file"].endswith("folder.s1p is a folder, not a file")

@@ -499,7 +499,9 @@ def load_readings(path: str | Path) -> WireReadings:
         )
     sweeps = [(path.parent / e.file, e.far_end) for e in f.sweep]
     missing = [
-        (f"sweep[{i}].file", f"{p} is not a file") for i, (p, _) in enumerate(sweeps, start=1) if not p.is_file()
+        (f"sweep[{i}].file", f"{p} {'is a folder, not a file' if p.is_dir() else 'does not exist'}")
+        for i, (p, _) in enumerate(sweeps, start=1)
+        if not p.is_file()
     ]
     if missing:
         raise ReadingsError(str(path), missing)
