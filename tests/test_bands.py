@@ -254,6 +254,19 @@ def test_one_wire_built_for_two_bands_is_given_one_resistor_that_holds_on_both(t
         assert got == pytest.approx(best[b["band"]] - b["loss_db"], abs=0.15)
 
 
+def test_a_level_given_once_is_said_to_be_taken_on_every_band(tmp_path):
+    # a reading is of one band; a file of two bands took its S7 on both without a word (a review)
+    path = tmp_path / "site.toml"
+    path.write_text(TWO_BAND_BEVERAGE)
+    r = evaluate_bands(path)
+    (n,) = [n for n in r.notices if n.code == "level-every-band"]
+    assert n.values["source"] == "power line insulator" and n.values["level_dbm"] == pytest.approx(-85.0)
+    assert n.values["bands"] == [band for band, _ in r.bands]
+    (said,) = [w for w in r.warnings if "is taken on every band" in w]
+    assert "its level (-85 dBm, S7)" in said and "--band" in said
+    assert not [n for n in r.band(r.bands[0][0]).notices if n.code == "level-every-band"]  # a band alone: none
+
+
 def test_one_resistor_that_costs_no_band_anything_is_simply_built():
     # a hostile-input run: "loses least at worst, 0.0 dB on 160 m and 0.0 dB on 80 m ...; or switch the resistor per
     # band (a relay at the far end)": a relay for nothing

@@ -93,6 +93,7 @@ def across_bands(bands, plan: Plan, columns) -> tuple[list, list[Notice]]:
 
     across = resistor_notices(bands, plan, columns)
     once = {n.antenna for n in across}
+    across = across + level_notices(bands)
     served = served_bands(plan, columns)
     too_long = {
         (band, n.antenna) for band, r in bands for n in r.notices if n.code == "wire-too-long" and n.antenna in served
@@ -108,6 +109,22 @@ def across_bands(bands, plan: Plan, columns) -> tuple[list, list[Notice]]:
     if once or partly:
         bands = [(band, replace(r, notices=[n for n in r.notices if kept(n)])) for band, r in bands]
     return list(bands), across
+
+
+def level_notices(bands) -> list[Notice]:
+    """``level-every-band`` (source, level_dbm or fa_db, bands) for each local noise source of a file of several bands
+    whose level is given once (a reading, or an Fa) and so taken on every band: a reading holds on the band it was
+    made on (a source's noise and a receiver's S-meter differ from band to band)."""
+    if len(bands) < 2:
+        return []
+    names = [band for band, _ in bands]
+    out = []
+    for src in bands[0][1].local_sources:
+        if src.get("level_dbm") is None and src.get("fa_db") is None:
+            continue
+        values = {"source": src["name"], "level_dbm": src.get("level_dbm"), "fa_db": src.get("fa_db"), "bands": names}
+        out.append(Notice("level-every-band", None, values))
+    return out
 
 
 def resistor_notices(bands, plan: Plan, columns) -> list[Notice]:

@@ -620,6 +620,7 @@ def _local_source_dicts(sc: Scenario) -> list[dict]:
             "elevation_deg": float(np.degrees(s.elevation_rad)),
             "spread_deg": float(np.degrees(s.spread_rad)),
             "level_dbm": s.level_dbm,
+            "fa_db": s.fa_db,
             "read_on": s.read_on if s.level_dbm is not None else None,
         }
         for s in sc.noise.local

@@ -10,7 +10,7 @@ import numpy as np
 
 from snrgain.model.notices import Notice
 from snrgain.physics.chain import SUGGESTED_PREAMP_NOISE_FIGURE_DB
-from snrgain.units import length_text, number_text, per_m, signed_text, significant_text
+from snrgain.units import length_text, number_text, per_m, s_units, signed_text, significant_text
 
 
 def _upper_bound(v) -> str:
@@ -264,6 +264,15 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         )
     if n.code == "lobe-away-from-bearing":
         return _lobe_away_text(n)
+    if n.code == "level-every-band":
+        dbm = v.get("level_dbm")
+        given = f"level ({dbm:.0f} dBm, {s_units(dbm)})" if dbm is not None else f"Fa ({v['fa_db']:.1f} dB)"
+        return (
+            f"noise source {v['source']!r}: its {given} is taken on every band ({', '.join(map(repr, v['bands']))}): a "
+            "reading holds on the band it was made on (a source's noise, and man-made noise in general, changes from "
+            "band to band); where it was read on one band only, rank that band alone (--band), or run a file per band "
+            "with its own reading"
+        )
     if n.code == "resistor-per-band":
         bands = v["bands"]
 
