@@ -106,6 +106,8 @@ def test_bad_band_tables_are_named():
     text = SITE.read_text()
     with pytest.raises(ScenarioError, match=r"target 2.bands: no band named \['20 m'\]"):
         evaluate_bands(text.replace('bands = ["80 m", "40 m"]', 'bands = ["20 m"]'))
+    with pytest.raises(ScenarioError, match=r"target 2.bands: '80 m' named twice; name each once"):
+        evaluate_bands(text.replace('bands = ["80 m", "40 m"]', 'bands = ["80 m", "40 m", "80 m"]'))
     with pytest.raises(ScenarioError, match=r"band 2.name: '160 m' is already used by band 1"):
         evaluate_bands(text.replace('name = "80 m"', 'name = "160 m"'))
     with pytest.raises(ScenarioError, match=r'band "40 m": band.frequency'):

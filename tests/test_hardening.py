@@ -757,3 +757,36 @@ def test_a_refused_value_is_quoted_with_its_invisible_characters_escaped(tmp_pat
         res = CliRunner().invoke(cli, ["check", str(path)])
         assert res.exit_code == 2 and raw not in res.stderr, repr(res.stderr)
         assert f'cannot read "1.83 MHz{escaped}" as frequency' in res.stderr
+
+
+@pytest.mark.parametrize(
+    "old, new, says",
+    [
+        # a height on a source given by bearing, which is heard from that bearing by every antenna
+        ('level = "S7"', 'level = "S7"\nheight = "4 m"', "height goes with a placed source"),
+    ],
+)
+def test_a_key_that_means_nothing_where_it_stands_is_refused(tmp_path, old, new, says):
+    # accepted without a word before (a hostile-input run): the user believed it was used
+    text = (SCENARIOS / "alder-hollow.toml").read_text(encoding="utf-8")
+    assert old in text
+    path = tmp_path / "s.toml"
+    path.write_text(text.replace(old, new, 1), encoding="utf-8")
+    from snrgain.scenario import load
+
+    with pytest.raises(ScenarioError, match=says):
+        load(path)
+
+
+def test_a_targets_arrival_keys_go_with_how_it_is_given():
+    from snrgain.scenario.targets import Target
+
+    by_bearing = {"name": "EU", "bearing": "45 deg", "elevation": ["5 deg", "20 deg"]}
+    by_place = {"name": "EU", "latitude": 50.0, "longitude": 10.0}
+    with pytest.raises(ValueError, match="layer_height goes with a target by latitude and longitude"):
+        Target.model_validate({**by_bearing, "layer_height": "300 km"})
+    with pytest.raises(ValueError, match="min_elevation goes with a target by latitude and longitude"):
+        Target.model_validate({**by_bearing, "min_elevation": "3 deg"})
+    with pytest.raises(ValueError, match="elevation goes with a target by bearing"):
+        Target.model_validate({**by_place, "elevation": ["5 deg", "20 deg"]})
+    Target.model_validate({**by_place, "layer_height": "300 km", "min_elevation": "3 deg"})  # its own keys: taken

@@ -180,6 +180,9 @@ def _check_bands(band: list, data: dict, label: str) -> list[str]:
                 problems.append(
                     (f"{what} {i + 1}.bands", f"no band named {unknown}; the bands are {', '.join(map(repr, names))}")
                 )
+            twice = sorted({w for k, w in enumerate(wanted) if w in wanted[:k]})
+            if twice:
+                problems.append((f"{what} {i + 1}.bands", f"{', '.join(map(repr, twice))} named twice; name each once"))
     if problems:  # the bands' own tables' problems said with them, not left for a second run
         raise ScenarioError(label, problems + [p for n, b in zip(names, band) for p in _table_problems(n, b)])
     return names

@@ -191,6 +191,11 @@ class LocalSource(StrictModel):
             )
         if self.orientation is not None and not self.placed:
             raise ValueError("orientation goes with a placed source (position or latitude and longitude)")
+        if "height" in self.model_fields_set and not self.placed:
+            raise ValueError(
+                "height goes with a placed source (position or latitude and longitude): a source given by bearing "
+                "is heard from that bearing, at its elevation, by every antenna"
+            )
         if self.measured_at is not None and (self.fa is None or self.bearing is not None):
             raise ValueError("measured_at goes with fa on a placed source (a level is read on the reference antenna)")
         return self

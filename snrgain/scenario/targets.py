@@ -69,6 +69,17 @@ class Target(StrictModel):
             raise ValueError("a target place needs both latitude and longitude")
         if by_bearing and self.elevation is None:
             raise ValueError("a target by bearing needs elevation = [low, high] in degrees")
+        given = [k for k in ("layer_height", "min_elevation") if k in self.model_fields_set]
+        if by_bearing and given:
+            raise ValueError(
+                f"{' and '.join(given)} {'go' if len(given) > 1 else 'goes'} with a target by latitude and longitude "
+                "(its arrival angles worked from the path); a target by bearing gives them as elevation = [low, high]"
+            )
+        if by_place and self.elevation is not None:
+            raise ValueError(
+                "elevation goes with a target by bearing; a target by latitude and longitude has its arrival angles "
+                "worked from the path (layer_height, min_elevation)"
+            )
         if self.elevation is not None and self.elevation[1] - self.elevation[0] < MIN_BAND_RAD * (1 - 1e-9):
             raise ValueError(
                 f"elevation range {[round(float(np.degrees(x)), 3) for x in self.elevation]} deg has no "
