@@ -184,6 +184,11 @@ def test_calibrate_command(tmp_path):
         cli, ["calibrate", str(rf), "--scenario", str(SCENARIOS / "marrow-fen.toml"), "--write", str(out)]
     )
     assert res.exit_code == 2 and "--overwrite" in res.stderr
+    # a file of several bands takes the fitted ground too (a review: it was refused for want of a [band] frequency)
+    several = REPO / "tests" / "data" / "sites" / "three-bands.toml"
+    res = runner.invoke(cli, ["calibrate", str(rf), "--scenario", str(several), "--write", str(tmp_path / "b.toml")])
+    assert res.exit_code == 0, res.output
+    assert "(|Z0| at 1.83 MHz less the far rod" in res.stdout and (tmp_path / "b.toml").exists()
     bad = tmp_path / "bad.toml"
     bad.write_text(
         '[wire]\nfamily = "bog"\nlength = "250 ft"\n[[open_short]]\nfrequency = "1.83 MHz"\n'

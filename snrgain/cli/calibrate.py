@@ -88,7 +88,9 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
             f"{len(data.sweeps)} sweep(s)"
         )
         with progress(None, f"calibrate: fitting {count}"):
-            band_hz = read_frequency(sc_data) if sc_data is not None else None
+            band_hz = None  # the band the textbook termination is worked for: a file of one band's
+            if sc_data is not None and isinstance(sc_data.get("band"), dict):
+                band_hz = read_frequency(sc_data)
             res = cal.calibrate(data, expected_velocity_factor=expected_vf, permittivity=permittivity, freq_hz=band_hz)
     except cal.ReadingError as exc:  # the readings cannot answer: say which file
         raise ValueError(f"{readings}: {exc}") from None
@@ -178,9 +180,9 @@ def calibrate(readings, example, expected_vf, permittivity, into, scenario, writ
             )
         lines_out.append(f"  or, over {over}: the wire's axis {where}; residual rms {h.residual_rms:.2f}")
     if res.suggested_termination_ohm is not None:
-        at = "the sweeps'" if res.suggested_at_hz is None else f"at {res.suggested_at_hz / 1e6:g} MHz"
+        at = "the sweeps' median |Z0|" if res.suggested_at_hz is None else f"|Z0| at {res.suggested_at_hz / 1e6:g} MHz"
         lines_out.append(
-            f"  textbook termination {res.suggested_termination_ohm:.0f} ohm (|Z0| {at} less the far rod; 'rank "
+            f"  textbook termination {res.suggested_termination_ohm:.0f} ohm ({at} less the far rod; 'rank "
             "--build' gives the resistor of best SNR gain under the site's noise, which can differ); transformer turns "
             f"ratio {res.suggested_turns_ratio:.2f} to {ant.params.coax} ohm coax"
         )
