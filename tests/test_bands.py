@@ -326,3 +326,35 @@ def test_check_says_each_geometry_warning_once_with_its_bands():
     assert res.stdout.index(warned[0]) > res.stdout.index("band '80 m':")  # said after both bands
     rank = CliRunner().invoke(cli, ["rank", "-"], input=text)
     assert "[160 m, 80 m] bev: runs off the lot" in rank.stderr  # as rank says it
+
+
+def test_a_caution_of_several_bands_is_merged_first_then_said_once(tmp_path):
+    # A review: the tower's caution was shortened band by band before a warning of several bands was merged, so one
+    # warning read two ways and was said twice, the caution in full twice.  Merged first, then said once.
+    from click.testing import CliRunner
+
+    from snrgain.cli.main import cli
+
+    text = SITE.read_text().replace(
+        'ground = "moist loam"\n',
+        'ground = "moist loam"\nstructures = [{ name = "tower", position = [20, 0], height = "30 m" }]\n',
+        1,
+    )
+    head, cands = text.split("[[candidate]]", 1)  # the candidates' bearings, not the targets'
+    cands = cands.replace(
+        'bearing = "50 deg"\n', 'bearing = "50 deg"\nposition = [10, 5]\nbands = ["160 m", "80 m"]\n', 1
+    )
+    cands = cands.replace(
+        'bearing = "330 deg"\n', 'bearing = "330 deg"\nposition = [30, 5]\nbands = ["80 m", "40 m"]\n', 1
+    )
+    text = head + "[[candidate]]" + cands
+    path = tmp_path / "tower.toml"
+    path.write_text(text)
+    runner = CliRunner()
+    for args in (["check", str(path)], ["rank", str(path)], ["rank", str(path), "--all-warnings"]):
+        res = runner.invoke(cli, args)
+        assert res.exit_code == 0, res.output
+        near = [ln for ln in res.output.splitlines() if "of the structure 'tower'" in ln]
+        assert len(near) == 2 and any("[160 m, 80 m] Beverage Europe" in ln for ln in near), (args, near)
+        assert any("[80 m, 40 m] BOG Japan" in ln for ln in near), (args, near)
+        assert res.output.count("a tower is climbed") == 1, args

@@ -24,6 +24,7 @@ def check(scenario, p372_dir):
     relative paths then start from the current folder).
     """
     from snrgain.cli.options import band_names
+    from snrgain.outputs.messages import said_once
     from snrgain.scenario import load
 
     names = band_names(scenario)
@@ -46,7 +47,7 @@ def check(scenario, p372_dir):
             click.echo(f"band {name!r}:")
             _summary(sc, geometry=False)
             per_band.append((name, _geometry_texts(sc)))
-        said = band_marked(per_band)  # a warning of several bands said once, with them, as rank says it
+        said = said_once(band_marked(per_band))  # a warning of several bands said once, with them, as rank says it
         head = f"geometry ({GEOMETRY}), each warning once with its bands:"
         click.echo(head if said else f"geometry: no warnings on any band ({GEOMETRY})")
         for w in said:
@@ -68,7 +69,7 @@ def _summary(sc, geometry: bool = True) -> None:
         f"{len(sc.times.utc_hours)} hour(s)"
     )
     from snrgain.decide.arrival import target_notices
-    from snrgain.outputs.messages import hops_text, notice_text
+    from snrgain.outputs.messages import hops_text, notice_text, said_once
 
     for t, tt in zip(sc.targets, sc.target_times):
         extra = f", {t.distance_m / 1e3:.0f} km, {hops_text(t.hops)}" if t.distance_m else ""
@@ -85,7 +86,7 @@ def _summary(sc, geometry: bool = True) -> None:
         click.echo(f"  candidate: {a.name} ({a.family})")
     _lot(sc)
     if geometry:
-        said = _geometry_texts(sc)
+        said = said_once(_geometry_texts(sc))
         if not said:
             click.echo(f"  geometry: no warnings ({GEOMETRY})")
         for w in said:
@@ -97,9 +98,9 @@ def _geometry_texts(sc) -> list[str]:
     plan points that look like a latitude and longitude), without computing any pattern, as sentences; lengths in the
     scenario's unit."""
     from snrgain.decide.lot import site_notices
-    from snrgain.outputs.messages import notice_texts
+    from snrgain.outputs.messages import notice_text
 
-    return notice_texts(site_notices(sc), unit=sc.site.length_unit)
+    return [notice_text(n, unit=sc.site.length_unit) for n in site_notices(sc)]
 
 
 def _lot(sc) -> None:

@@ -39,13 +39,13 @@ class BandResults:
         not use on the band (each band's :meth:`Results.notices_apart` against :meth:`built_names` of that band),
         counted by antenna instead (its name: how many, over every band)."""
         from snrgain.model.results import apart_counts
-        from snrgain.outputs.messages import notice_text, notice_texts
+        from snrgain.outputs.messages import notice_text, said_once
 
         per_band, counts, seen = [], {}, set()
         for name, r in self.bands:
             said, apart = r.notices_apart(self.built_names(name))
             unit = r.site.get("length_unit", "m")
-            per_band.append((name, notice_texts(said, unit=unit)))
+            per_band.append((name, [notice_text(n, unit=unit) for n in said]))
             once = []  # a warning said word for word on several bands counts once, as it would be said once
             for n in apart:
                 key = (n.antenna, notice_text(n, unit=unit))
@@ -53,7 +53,7 @@ class BandResults:
                     seen.add(key)
                     once.append(n)
             apart_counts(r, once, counts)
-        return self._marked(per_band), counts
+        return said_once(self._marked(per_band)), counts  # merged across bands first, then a caution said once
 
     def built_names(self, band: str | None = None) -> frozenset[str] | None:
         """What the plan across the bands builds (:meth:`Results.built_names` of each band against it, taken
