@@ -187,7 +187,7 @@ def wire(
                 f"({out['far_ground_ohm']:.0f} ohm) = {out['textbook_termination_ohm']:.0f} ohm"
             )
         lines_out += termination_lines(out)
-        if str(termination).strip().lower() != "auto":
+        if "given_termination" in out:
             lines_out.append(given_termination_line(out))
     zin = out["feed_point_impedance_ohm"]
     exact = out["exact_turns_ratio"]
@@ -206,22 +206,19 @@ FB_FORMAT = "{:.1f}"
 
 
 def given_termination_line(out: dict) -> str:
-    """What the resistor given (--termination) costs against the fit of the termination's criterion: the RDF and
-    front-to-back of "this wire" are the given resistor's."""
+    """What the resistor given (--termination) costs against the best ones, all rated alike along the wire at 20 deg
+    (the answers' elevation, whatever --elevation is): its RDF below the best RDF's, its front-to-back against the
+    best front-to-back's."""
     from snrgain.units import number_text
 
-    answers = out["termination_answers"]
-    a = answers.get(out.get("termination_criterion", "rdf"), answers["rdf"])
-    best_rdf = answers["rdf"]
-    given = out["termination_ohm"]
-    lost = best_rdf["figure_db"] - out["rdf_db"]
+    answers, given = out["termination_answers"], out["given_termination"]
+    best_rdf, best_fb = answers["rdf"], answers["front_to_back"]
+    lost = best_rdf["figure_db"] - given["rdf_db"]
     return (
-        f"  given: {given:.0f} ohm (the wire above is built with it): RDF {out['rdf_db']:.1f} dB, {max(lost, 0.0):.2f} "
-        f"dB below the best, {best_rdf['termination_ohm']:.0f} ohm; front-to-back "
-        f"{number_text(out['front_to_back_db'], FB_FORMAT)} dB against "
-        f"{number_text(answers['front_to_back']['figure_db'], FB_FORMAT)} dB at "
-        f"{answers['front_to_back']['termination_ohm']:.0f} ohm"
-        + ("" if a is best_rdf else f" (the fit above is for {a['criterion'].replace('_', '-')})")
+        f"  given: {given['ohm']:.0f} ohm (the wire above is built with it), along the wire at 20 deg: RDF "
+        f"{given['rdf_db']:.1f} dB, {max(lost, 0.0):.2f} dB below the best, {best_rdf['termination_ohm']:.0f} ohm; "
+        f"front-to-back {number_text(given['front_to_back_db'], FB_FORMAT)} dB against "
+        f"{number_text(best_fb['figure_db'], FB_FORMAT)} dB at {best_fb['termination_ohm']:.0f} ohm"
     )
 
 

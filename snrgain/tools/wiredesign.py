@@ -280,6 +280,20 @@ def termination_answer(
     )
 
 
+def resistor_figures_db(antenna, freq_hz: float, ohm: float) -> dict[str, float]:
+    """RDF and front-to-back [dB] of ``antenna`` with the resistor ``ohm``, toward its bearing at the auto elevation
+    (20 deg), as :func:`termination_answer` rates its resistors: a resistor given beside the answers' own."""
+    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
+
+    elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
+    bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
+    pattern = antenna.termination_pattern(freq_hz)
+    return {
+        f"{metric}_db": float(10 * np.log10(termination_figure(pattern, bearing, elevation, metric)(max(ohm, 1e-3))))
+        for metric in ("rdf", "front_to_back")
+    }
+
+
 def _curve(antenna, freq_hz: float, values_ohm, figure) -> tuple[tuple[float, ...], ...]:
     """(resistors, the criterion, the front-to-back toward the bearing at the auto elevation) at ``values_ohm``;
     ``figure`` the criterion's figure(r) (longwire.termination_figure), or its values [dB] at ``values_ohm``."""
@@ -500,6 +514,9 @@ def wire_report(spec: dict, freq_hz: float, *, elevation_rad: float = DEFAULT_EL
             termination_front_to_back_span_db=float(np.ptp(t_fb.figure_db)),
             termination_search_ohm=[float(t_rdf.values_ohm[0]), float(t_rdf.values_ohm[-1])],
         )
+        if spec.get("termination", "auto") != "auto":  # the resistor given, rated as the answers are (20 deg)
+            given = float(ant.termination_ohm(freq_hz))
+            out["given_termination"] = {"ohm": given, **resistor_figures_db(ant, freq_hz, given)}
     tr = transformer(ant, freq_hz)
     out.update(
         exact_turns_ratio=tr.exact_turns_ratio,
