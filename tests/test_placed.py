@@ -332,6 +332,12 @@ def test_horizontal_source_in_a_scenario():
     with pytest.raises(ScenarioError, match=r"\.fa: the reference antenna \(vertical\) picks up nothing"):
         snrgain.evaluate(as_fa)
     assert np.isfinite(snrgain.evaluate(as_fa.replace('"horizontal"', '"both"')).candidates[0].snr_gain_nominal_db[0])
+    # a hair off broadside (0.035 deg: the reference 70 dB down in the source's null) is as deaf (a review: a candidate
+    # was ranked 99 dB below the reference); 1.4 deg off (33 dB down) is heard
+    for turned in ("153.4", "153.43"):
+        with pytest.raises(ScenarioError, match="60 dB or more below what it would hear"):
+            snrgain.evaluate(as_fa.replace("orientation = 153.43494882", f"orientation = {turned}"))
+    snrgain.evaluate(as_fa.replace("orientation = 153.43494882", "orientation = 152"))
 
 
 def _segment_whip(height="6 m", position=(0.0, 0.0)):

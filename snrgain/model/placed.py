@@ -1247,9 +1247,16 @@ def hears(antenna, src, freq_hz: float, reference_m) -> bool:
     if share_h:  # a horizontal dipole: a vertical ground wave off its ends, a horizontal field broadside to it
         off_axis = float(bearing_to(src, at[None, :])[0]) - orientation_rad(src)
         ends, side = np.cos(off_axis) ** 2, np.sin(off_axis) ** 2
-        ends, side = (0.0 if ends < 1e-9 else ends), (0.0 if side < 1e-9 else side)
-        return bool(share_v * gv[0] + share_h * (ends * gv[0] + side * gh[0]) > 0)
+        heard = share_v * gv[0] + share_h * (ends * gv[0] + side * gh[0])
+        # in the source's null to within NULL_DEPTH of what it hears of the source turned its best way: a reading
+        # there would make the source as much louder everywhere else (a hair off broadside is as deaf as broadside)
+        return bool(heard > NULL_DEPTH * (share_v + share_h) * max(gv[0], gh[0]))
     return bool(gv[0] > 0)  # a vertical dipole's field has no horizontal part across the line of sight
+
+
+NULL_DEPTH = 1e-6
+"""An antenna hears a placed source only above this share (-60 dB, as snrgain.scenario.local.MIN_READING_GAIN for a
+source by bearing) of what it would hear of it turned its best way (:func:`hears`)."""
 
 
 def received_power(antenna, src, freq_hz: float, reference_m, ground, *, at_m=None) -> float:

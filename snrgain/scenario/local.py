@@ -53,10 +53,8 @@ def local_levels_readable(
                 out.append(
                     (
                         f"{where}.level",
-                        f"{who} picks up nothing of a {src.polarisation} source where it stands, so a level read "
-                        f"on {'it' if ant is on else repr(on.name)} cannot be placed; give the level as fa, or the "
-                        "polarisation the antenna hears (a horizontal source broadside to a vertical gives it no "
-                        "vertical field: check its orientation)",
+                        f"{who} picks up nothing of a {src.polarisation} source where it stands ({_NULL_WORDS}), so a "
+                        f"level read on {'it' if ant is on else repr(on.name)} cannot be placed; {_INSTEAD}",
                     )
                 )
                 break
@@ -75,14 +73,20 @@ def local_levels_readable(
     return out
 
 
+_NULL_WORDS = "or 60 dB or more below what it would hear of the source turned its best way"
+_INSTEAD = (
+    "give the polarisation it radiates ('both' for a source that radiates either way, as most do), or check its "
+    "orientation (a horizontal source broadside to a vertical gives it no vertical field)"
+)
+
+
 def _deaf_reference(reference: Antenna, src) -> str:
     """Why an Fa of a placed source cannot place it when the reference hears nothing of it."""
     return (
         f"the reference antenna ({reference.family}) picks up nothing of a {src.polarisation} source where it "
-        "stands, and a placed source's noise is scaled from what the reference hears of it (its fa is carried to "
-        "the reference, taken for P.372's monopole there), so every other antenna's share of it would be without "
-        "bound; give the polarisation it radiates ('both' for a source that radiates either way, as most do), or "
-        "check its orientation (a horizontal source exactly broadside to a vertical gives it no vertical field)"
+        f"stands ({_NULL_WORDS}), and a placed source's noise is scaled from what the reference hears of it (its fa "
+        "is carried to the reference, taken for P.372's monopole there), so every other antenna's share of it would "
+        f"be without bound; {_INSTEAD}"
     )
 
 
