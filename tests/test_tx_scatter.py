@@ -906,3 +906,14 @@ def test_the_verticals_distance_is_the_antennas_closest_approach():
     assert closest_approach_m(pair, (0.0, 40.0)) == pytest.approx(10.0)  # its nearer element, not the centre's 25 m
     whip = from_spec({"family": "vertical", "height": "6 m", "position": [3, 4], "ground": "moist loam"})
     assert closest_approach_m(whip, (0.0, 0.0)) == pytest.approx(5.0)
+    # through the ranking's rows: a Beverage passing the vertical 10 m off, and a flag whose loop runs from its feed
+    # side (its position) away from its bearing, 20.45 m at its feed side
+    import snrgain
+
+    wire = '[[candidate]]\nname = "bev"\nfamily = "beverage"\nlength = "150 m"\nheight = "2 m"\nbearing = 90\n'
+    text = SMALL_LOT.format(extra="") + wire + "position = [-60, 10]\n"
+    text = text.replace(
+        "lot = [[-30, -30], [60, -30], [60, 40], [-30, 40]]", "lot = [[-70, -30], [100, -30], [100, 40], [-70, 40]]"
+    )
+    rows = {row["antenna"]: row["distance_m"] for row in snrgain.evaluate(text).tx_vertical}
+    assert rows["bev"] == pytest.approx(10.0) and rows["flag near"] == pytest.approx(float(np.hypot(4.25, 20.0)))

@@ -398,25 +398,18 @@ def tx_cost(
 
 
 def closest_approach_m(antenna, point_m, *, at_m=None) -> float:
-    """How near ``antenna`` comes to a point of the plan [m]: a long wire's run from its feed point along its bearing,
-    an array's elements, else its place (an array's element centroid, the reference's place without one);
-    ``at_m``: the antenna's feed point (an array's centre) put there."""
+    """How near ``antenna`` comes to a point of the plan [m]: its feed point, a long wire's run, a loop's width, an
+    array's elements (snrgain.scenario.local.antenna_outline; an antenna without a position at the plan's origin, as
+    :func:`tx_cost` takes it); ``at_m``: the antenna moved so that its feed point (an array's centre) stands there."""
     from snrgain.model.placed import antenna_point
+    from snrgain.scenario.local import antenna_outline, gap_m
 
-    q = np.asarray(point_m, dtype=float)
-    p = np.asarray(at_m, dtype=float) if at_m is not None else antenna_point(antenna, q)
-    if antenna.long_wire:
-        b = antenna.bearing_rad
-        u = np.array([np.sin(b), np.cos(b)])
-        t = float(np.clip((q - p) @ u, 0.0, antenna.length_m))
-        return float(np.hypot(*(p + t * u - q)))
-    pos = getattr(antenna, "positions", None)
-    if pos is not None and len(pos):
-        pts = np.asarray(pos, dtype=float)
-        if at_m is not None:
-            pts = pts - pts.mean(axis=0) + p
-        return float(np.min(np.hypot(*(pts - q).T)))
-    return float(np.hypot(*(p - q)))
+    origin = (0.0, 0.0)
+    shapes = antenna_outline(antenna, origin)
+    if at_m is not None:
+        shift = np.asarray(at_m, dtype=float) - antenna_point(antenna, origin)
+        shapes = [shape + shift for shape in shapes]
+    return min(gap_m(np.asarray(point_m, dtype=float), shape) for shape in shapes)
 
 
 _EFFECTS: list = []  # the last scenario's (scenario, rows, notices): decisions asks for both
