@@ -590,7 +590,7 @@ def test_a_locate_readings_bearing_is_where_its_antenna_turns(tmp_path):
     path.write_text(text.replace('antenna = "vertical"\n', 'antenna = "vertical"\nbearing = 90\n'))
     with pytest.raises(ReadingsError) as err:
         loc.load_readings(path)
-    assert err.value.problems == [("reading 7.bearing", "a vertical has no bearing: it hears all round")]
+    assert err.value.problems == [("reading 7.bearing", "a vertical antenna has no bearing: it hears all round")]
 
 
 def test_a_ground_fit_the_readings_do_not_fix_is_not_written():
@@ -838,7 +838,8 @@ def test_a_pattern_table_is_read_without_the_files_ground_and_a_combination_is_r
     turned = _example().replace('family = "vertical"\nheight = "18 m"\n', table)
     rf.write_text(turned.replace('antenna = "vertical"\n', 'antenna = "vertical"\nbearing = 90\n'))
     res = CliRunner().invoke(cli, ["locate", str(rf)])
-    assert res.exit_code == 2 and "a tabulated cannot be turned by a reading's bearing" in res.stderr, res.output
+    assert res.exit_code == 2 and "the tabulated family's pattern cannot be turned" in res.stderr, res.output
+    assert "with rotate = the angle it was turned by" in res.stderr
     assert "hears all round" not in res.stderr
     no_file = turned.replace('file = "patterns/cardioid-pair.csv"\n', "")
     rf.write_text(no_file.replace('antenna = "vertical"\n', 'antenna = "vertical"\nbearing = 90\n'))

@@ -247,7 +247,8 @@ def load_readings(path: str | Path) -> NoiseReadings:
             except SpecError as exc:  # its own problems too, in the same run
                 problems.extend(exc.problems)
                 fixed = None
-            problems.append((f"{where}.bearing", _no_bearing(spec["family"], fixed, rf.frequency)))
+            turnable = "rotate" in family.params.model_fields  # a table turned whole by a key of its own
+            problems.append((f"{where}.bearing", _no_bearing(spec["family"], fixed, rf.frequency, turnable)))
             continue
         if r.bearing is None and turns and "bearing" not in spec:
             problems.append(
@@ -281,18 +282,20 @@ def load_readings(path: str | Path) -> NoiseReadings:
     return NoiseReadings(rf.frequency, rf.bandwidth, readings, rf.at, distances, unit, make_ground(rf.ground), said)
 
 
-def _no_bearing(family: str, antenna, freq_hz: float) -> str:
+def _no_bearing(family: str, antenna, freq_hz: float, turnable: bool) -> str:
     """Why a reading's bearing cannot turn an antenna of ``family`` (built as ``antenna``, None where it could not
     be): one that hears all round (its gain the same to 0.05 dB every 30 deg at 10 deg elevation) has nothing to
-    turn; another (a pattern table) is read as it is written."""
+    turn; another (a pattern table) is read as it is written, turned whole by its own key where it has one
+    (``turnable``: its ``rotate``)."""
     if antenna is not None:
         az = np.radians(np.arange(0.0, 360.0, 30.0))
         g = antenna.gain_linear(freq_hz, az, np.full(az.size, np.radians(10.0)))
         if np.all(g > 0) and 10 * np.log10(float(np.max(g) / np.min(g))) < 0.05:
-            return f"a {family} has no bearing: it hears all round"
+            return f"a {family} antenna has no bearing: it hears all round"
+    each = "an [antenna.*] table of its own" + (", with rotate = the angle it was turned by" if turnable else "")
     return (
-        f"a {family} cannot be turned by a reading's bearing: its pattern is read as it is given; write each "
-        "direction it was read in as an [antenna.*] table of its own (its pattern turned), or leave the bearing out"
+        f"the {family} family's pattern cannot be turned by a reading's bearing: it is read as it is given; write "
+        f"each direction it was read in as {each}, or leave the bearing out"
     )
 
 
