@@ -230,6 +230,15 @@ def test_wire_says_what_a_given_resistor_costs(runner):
     assert "given_termination" not in auto and "given:" not in runner.invoke(cli, args).output
 
 
+def test_wire_says_no_bound_where_the_length_rule_has_none(runner):
+    # over a ground of nearly air's constants at 1 deg the wave on the wire keeps pace with the arriving one: the
+    # rule of thumb has no bound, which was printed as "inf m (inf ft)"
+    args = ["wire", "--frequency", "1.83 MHz", "--length", "800 ft", "--conductivity", "0.01 mS/m"]
+    res = runner.invoke(cli, [*args, "--permittivity", "1", "--elevation", "1"])
+    assert res.exit_code == 0, res.output
+    assert "inf" not in res.output and "= no bound (the wave on the wire keeps pace" in res.output
+
+
 def test_wire_command_bog_where_it_lies(runner):
     base = ["wire", "--family", "bog", "--frequency", "1.83 MHz", "--length", "60 m"]
     grass = runner.invoke(cli, base)

@@ -751,9 +751,14 @@ def test_a_refused_value_is_quoted_with_its_invisible_characters_escaped(tmp_pat
 
     text = (SCENARIOS / "alder-hollow.toml").read_text(encoding="utf-8")
     frequency = next(line for line in text.splitlines() if line.startswith("frequency"))
-    for raw, escaped in (("\u202e", "\\u202e"), ("\x00", "\\x00"), ("\u200b", "\\u200b")):
+    for raw, escaped in (
+        ("\u202e", "\\u202e"),
+        ("\x00", "\\x00"),
+        ("\u200b", "\\u200b"),
+        ("\U000e0001", "\\U000e0001"),
+    ):
         path = tmp_path / "s.toml"  # written with TOML's own escape (a raw NUL is not TOML)
-        path.write_text(text.replace(frequency, f'frequency = "1.83 MHz\\u{ord(raw):04x}"'), encoding="utf-8")
+        path.write_text(text.replace(frequency, f'frequency = "1.83 MHz\\U{ord(raw):08x}"'), encoding="utf-8")
         res = CliRunner().invoke(cli, ["check", str(path)])
         assert res.exit_code == 2 and raw not in res.stderr, repr(res.stderr)
         assert f'cannot read "1.83 MHz{escaped}" as frequency' in res.stderr

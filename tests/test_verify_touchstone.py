@@ -377,3 +377,13 @@ def test_a_sweep_file_that_is_missing_or_a_folder_is_said_as_such(tmp_path):
     said = dict(err.value.problems)
     assert said["sweep[1].file"].endswith("gone.s1p does not exist")
     assert said["sweep[2].file"].endswith("folder.s1p is a folder, not a file")
+    import os
+
+    os.mkfifo(tmp_path / "pipe.s1p")
+    (tmp_path / "wire.toml").write_text(
+        '[wire]\nfamily = "beverage"\nlength = "250 m"\nheight = "2 m"\n\n'
+        '[[sweep]]\nfile = "pipe.s1p"\nfar_end = "open"\n'
+    )
+    with pytest.raises(ReadingsError) as err:
+        cal.load_readings(tmp_path / "wire.toml")
+    assert dict(err.value.problems)["sweep[1].file"].endswith("is not a regular file (a device, a pipe or a socket)")

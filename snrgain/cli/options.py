@@ -213,7 +213,8 @@ def shown(text: str) -> str:
     def one(ch: str) -> str:
         if ch in "\n\t" or unicodedata.category(ch) not in ("Cc", "Cf", "Zl", "Zp"):
             return ch
-        return f"\\x{ord(ch):02x}" if ord(ch) < 0x100 else f"\\u{ord(ch):04x}"
+        code = ord(ch)
+        return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}" if code < 0x10000 else f"\\U{code:08x}"
 
     return "".join(map(one, text))
 

@@ -171,8 +171,13 @@ def wire(
         f"  line: velocity factor {ln['velocity_factor']:.3f}, "
         f"attenuation {ln['attenuation_db_per_100m']:.2f} dB/100 m "
         f"({ln['attenuation_db_per_100ft']:.2f} dB/100 ft), Z0 {z0.real:.0f}{z0.imag:+.0f}j ohm (|Z0| {abs(z0):.0f})",
-        f"  length: rule of thumb lambda/(4(1/k - cos {elevation:g} deg)) = {rule_m:.0f} m "
-        f"({rule_m * ft:.0f} ft); model's best for RDF = {best_m:.0f} m "
+        f"  length: rule of thumb lambda/(4(1/k - cos {elevation:g} deg)) = "
+        + (
+            f"{rule_m:.0f} m ({rule_m * ft:.0f} ft)"
+            if rule_m is not None and np.isfinite(rule_m)
+            else "no bound (the wave on the wire keeps pace with the arriving wave)"
+        )
+        + f"; model's best for RDF = {best_m:.0f} m "
         f"({best_m * ft:.0f} ft), RDF {out['best_length_rdf_db']:.1f} dB",
         f"  this wire: forward gain {out['forward_gain_dbi']:.1f} dBi, RDF {out['rdf_db']:.1f} dB, "
         f"front-to-back {number_text(out['front_to_back_db'], FB_FORMAT)} dB at {elevation:g} deg",

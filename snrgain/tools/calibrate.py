@@ -499,9 +499,7 @@ def load_readings(path: str | Path) -> WireReadings:
         )
     sweeps = [(path.parent / e.file, e.far_end) for e in f.sweep]
     missing = [
-        (f"sweep[{i}].file", f"{p} {'is a folder, not a file' if p.is_dir() else 'does not exist'}")
-        for i, (p, _) in enumerate(sweeps, start=1)
-        if not p.is_file()
+        (f"sweep[{i}].file", f"{p} {_not_a_file(p)}") for i, (p, _) in enumerate(sweeps, start=1) if not p.is_file()
     ]
     if missing:
         raise ReadingsError(str(path), missing)
@@ -651,6 +649,13 @@ def expected_branch(readings: WireReadings, given: float | None = None) -> tuple
         return 0.8, "none needed"
     f = min(r.freq_hz for r in readings.open_short)
     return float(ant.line(f).velocity_factor), f"the wire model's at {f / 1e6:g} MHz over the wire's ground"
+
+
+def _not_a_file(p: Path) -> str:
+    """What a path that is not a regular file is, in words."""
+    if not p.exists():
+        return "does not exist"
+    return "is a folder, not a file" if p.is_dir() else "is not a regular file (a device, a pipe or a socket)"
 
 
 def calibrate(
