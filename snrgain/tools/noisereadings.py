@@ -673,15 +673,19 @@ def _rx_name(rx) -> str | None:
 
 
 def quieter_reading(other: np.ndarray, t_e: np.ndarray, has_local: bool) -> str:
-    """What to read instead when man-made noise is a small share of every reading: what dominates them decides (the
-    chain's own noise, the local sources the scenario places, else the sky's atmospheric and galactic noise)."""
+    """What to read instead when man-made noise is a small share of every reading: the chain's own noise where it is
+    most of them; else the other components (the local sources the scenario has, and the sky's atmospheric and
+    galactic noise, not told apart here)."""
     if np.median(t_e) > np.median(other):
         return (
             "the receiver chain's own noise is most of the readings: read through a preamplifier, or on an antenna "
             "that delivers more of the sky's noise"
         )
-    if has_local:
-        return "read on an antenna that hears the local sources less"
+    if has_local:  # the local sources or the sky: the readings' other share is not told apart here
+        return (
+            "read on an antenna that hears the local sources less, or when the atmospheric and galactic noise are "
+            "lower (daytime, or a quieter season)"
+        )
     return (
         "the atmospheric and galactic noise are most of the readings: read when they are lower (daytime, or a "
         "quieter season), when man-made noise is a larger share"
