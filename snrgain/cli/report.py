@@ -352,7 +352,8 @@ def _figure_jobs(sc, plan, names: list[str], d: Path, fmt: str, *, only: bool, o
         counts[name] = counts.get(name, 0) + 1
     seconds = drawing_seconds(counts, len(sc.targets), 1 + len(sc.candidates))
     if seconds >= NOTE_SECONDS:
-        click.echo(f"figures: {len(jobs)} figures to draw, about {seconds:.0f} s of drawing", err=True)
+        many = f"{len(jobs)} figure{'' if len(jobs) == 1 else 's'}"
+        click.echo(f"figures: {many} to draw, about {seconds:.0f} s of drawing", err=True)
     return jobs
 
 

@@ -42,6 +42,8 @@ class Notice:
     3 dB; snrgain.decide.decisions),
     ``resistor-per-band`` (bands, common_ohm, common_standard_ohm, worst_db, worst_band: an antenna of a plan across
     bands whose best resistors differ by band; snrgain.decide.bandplan.resistor_notices),
+    ``level-every-band`` (source, level_dbm, fa_db, bands: a local source's level or Fa given once in a file of
+    several bands, and so taken on every band; snrgain.decide.bandplan.level_notices),
     ``wire-too-long`` (length_m, rule_m, rdf_db, best_length_m, best_rdf_db, target, velocity_factor: a wire past
     the maximum-effective-length rule that a shorter one beats on RDF; snrgain.decide.decisions),
     ``near-raised-source`` (source, distance_m, height_m, others: an antenna, the reference too, within 10 m on the

@@ -269,9 +269,9 @@ def notice_text(n: Notice, unit: str = "m") -> str:
         given = f"level ({dbm:.0f} dBm, {s_units(dbm)})" if dbm is not None else f"Fa ({v['fa_db']:.1f} dB)"
         return (
             f"noise source {v['source']!r}: its {given} is taken on every band ({', '.join(map(repr, v['bands']))}): a "
-            "reading holds on the band it was made on (a source's noise, and man-made noise in general, changes from "
-            "band to band); where it was read on one band only, rank that band alone (--band), or run a file per band "
-            "with its own reading"
+            f"{'reading' if dbm is not None else 'measured Fa'} holds on the band it was made on (a source's noise, "
+            "and man-made noise in general, changes from band to band); where it was measured on one band only, rank "
+            "that band alone (--band), or run a file per band with its own value"
         )
     if n.code == "resistor-per-band":
         bands = v["bands"]
