@@ -467,4 +467,4 @@ def test_the_reports_header_lists_months_and_hours_as_words(tmp_path):
     head = vf.report_lines(r)[0]
     from snrgain.outputs.output import hours_text
 
-    assert "[" not in head and head.endswith(f"months {', '.join(map(str, r.months))}, {hours_text(r.hours)}")
+    assert "[" not in head and head.endswith(f"months {', '.join(map(str, r.months))}; {hours_text(r.hours)}")

@@ -624,7 +624,7 @@ def report_lines(r: VerifyResult) -> list[str]:
     from snrgain.outputs.output import hours_text  # the hours as the report and the figures give them
 
     out = [
-        f"{r.site}: {r.a} minus {r.b}, {r.band}, months {', '.join(map(str, r.months))}, {hours_text(r.hours)}",
+        f"{r.site}: {r.a} minus {r.b}, {r.band}, months {', '.join(map(str, r.months))}; {hours_text(r.hours)}",
         f"pairing: {r.rule}",
         f"{len(r.pairs):,} pairs placed",
         "",
