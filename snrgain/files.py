@@ -68,6 +68,11 @@ def claim_output(path: str | Path) -> None:
     _OUTPUTS.add(key)
 
 
+def kind_of(mode: int) -> str:
+    """What a path that is not a regular file is, by its ``st_mode``: "a folder", or "a device, a pipe or a socket"."""
+    return "a folder" if stat.S_ISDIR(mode) else "a device, a pipe or a socket"
+
+
 def read_limited(path: str | Path, *, limit_bytes: int, what: str = "file") -> bytes:
     """The bytes of ``path``, refused up front unless it is a regular file of at most ``limit_bytes``.
 
@@ -85,8 +90,7 @@ def read_limited(path: str | Path, *, limit_bytes: int, what: str = "file") -> b
         if _INPUTS is not None:
             _INPUTS.add((st.st_dev, st.st_ino))
         if not stat.S_ISREG(st.st_mode):
-            kind = "a folder" if stat.S_ISDIR(st.st_mode) else "a device, a pipe or a socket"
-            raise InputFileError(f"{p}: the {what} is {kind}, not a regular file; give a file")
+            raise InputFileError(f"{p}: the {what} is {kind_of(st.st_mode)}, not a regular file; give a file")
         if st.st_size > limit_bytes:
             raise InputFileError(f"{p}: the {what} is {st.st_size:,} bytes; at most {_size(limit_bytes)} is read")
         chunks, total = [], 0

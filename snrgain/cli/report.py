@@ -329,6 +329,8 @@ def _figure_jobs(sc, plan, names: list[str], d: Path, fmt: str, *, only: bool, o
     """(path, figure, options) of each figure to write, from the loaded scenario, before any work: ``names`` loses
     the site plan where there is none to draw (refused where --only asked for it); files already there are refused
     without ``overwrite``, and a long drawing is said on stderr (snrgain.outputs.reportsize)."""
+    from collections import Counter
+
     from snrgain.outputs import plots
     from snrgain.outputs.reportsize import NOTE_SECONDS, drawing_seconds
 
@@ -347,9 +349,7 @@ def _figure_jobs(sc, plan, names: list[str], d: Path, fmt: str, *, only: bool, o
     existing = [str(p) for p, _, _ in jobs if p.exists()]
     if existing and not overwrite:
         raise ValueError(f"{', '.join(existing)} exist(s); pass --overwrite to replace")
-    counts: dict[str, int] = {}
-    for _, name, _ in jobs:
-        counts[name] = counts.get(name, 0) + 1
+    counts = Counter(name for _, name, _ in jobs)
     seconds = drawing_seconds(counts, len(sc.targets), 1 + len(sc.candidates))
     if seconds >= NOTE_SECONDS:
         many = f"{len(jobs)} figure{'' if len(jobs) == 1 else 's'}"

@@ -653,9 +653,11 @@ def expected_branch(readings: WireReadings, given: float | None = None) -> tuple
 
 def _not_a_file(p: Path) -> str:
     """What a path that is not a regular file is, in words."""
+    from snrgain.files import kind_of
+
     if not p.exists():
         return "does not exist"
-    return "is a folder, not a file" if p.is_dir() else "is not a regular file (a device, a pipe or a socket)"
+    return "is a folder, not a file" if p.is_dir() else f"is not a regular file ({kind_of(p.stat().st_mode)})"
 
 
 def calibrate(

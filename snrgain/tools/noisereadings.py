@@ -256,15 +256,17 @@ def load_readings(path) -> list[Reading]:
     for key in ("receiver", "reading"):
         if not isinstance(data.get(key, []), list):
             raise ReadingsError(str(path), [(key, f"a list of tables: [[{key}]] (see --example)")])
+    named: dict[str, int] = {}  # each receiver's name: its table's number
     for i, rx in enumerate(data.get("receiver", []), 1):
         where = f"receiver[{i}]"
         if not isinstance(rx, dict) or not isinstance(rx.get("name"), str):
             problems.append((where, "a receiver needs a name"))
             continue
-        first = next((k for k, o in enumerate(data["receiver"][: i - 1], 1) if _rx_name(o) == rx["name"]), None)
-        if first is not None:
+        if rx["name"] in named:
+            first = named[rx["name"]]
             problems.append((f"{where}.name", f"{rx['name']!r} is already used by receiver[{first}]; name each once"))
             continue
+        named[rx["name"]] = i
         pts = []
         if not isinstance(rx.get("s_meter", []), list):
             problems.append((f"{where}.s_meter", "a list of [S-reading, dBm] pairs"))
@@ -665,11 +667,6 @@ def fit(readings: list[Reading], scenario_path, *, p372_dir=None, label: str = "
     beyond = beyond_p372_note(env, float(freq), before + delta)
     level = [beyond] if beyond else []
     return NoiseFit(before, before + delta, scatter, float(se * Z90), env, float(freq), rows, notes, level)
-
-
-def _rx_name(rx) -> str | None:
-    """A [[receiver]] table's name, None where it has none."""
-    return rx.get("name") if isinstance(rx, dict) and isinstance(rx.get("name"), str) else None
 
 
 def quieter_reading(other: np.ndarray, t_e: np.ndarray, has_local: bool) -> str:

@@ -237,7 +237,7 @@ def termination_answer(
     antenna without a resistor to choose.  The same function serves `wire`, the build sheet and the report.
     ``curve``: with the criterion and the front-to-back over the resistors (the build sheet's, for a plan across
     bands; :attr:`TerminationAnswer.curve`)."""
-    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, search_bound, termination_figure
+    from snrgain.antennas.longwire import search_bound
     from snrgain.decide.build import nearest_standard_ohm
 
     if not hasattr(antenna, "termination_pattern") or "termination" not in type(antenna.params).model_fields:
@@ -254,9 +254,7 @@ def termination_answer(
     best = variant(antenna, termination="auto", auto_for=criterion).termination_ohm(freq_hz)
     matched = antenna.matched_termination_ohm(freq_hz)
     metric = "rdf" if criterion == "z0" else criterion  # |Z0| is rated on RDF
-    elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
-    bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
-    figure = termination_figure(pattern, bearing, elevation, metric)
+    figure = _rated(antenna, pattern, metric)
 
     def db(r):
         return float(10 * np.log10(figure(max(r, 1e-3))))
@@ -283,25 +281,27 @@ def termination_answer(
 def resistor_figures_db(antenna, freq_hz: float, ohm: float) -> dict[str, float]:
     """RDF and front-to-back [dB] of ``antenna`` with the resistor ``ohm``, toward its bearing at the auto elevation
     (20 deg), as :func:`termination_answer` rates its resistors: a resistor given beside the answers' own."""
+    pattern = antenna.termination_pattern(freq_hz)
+    return {
+        f"{metric}_db": float(10 * np.log10(_rated(antenna, pattern, metric)(max(ohm, 1e-3))))
+        for metric in ("rdf", "front_to_back")
+    }
+
+
+def _rated(antenna, pattern, metric: str):
+    """``metric``'s figure(r) of a resistor r (longwire.termination_figure) toward the antenna's bearing at its auto
+    elevation (20 deg): how every resistor of this module is rated."""
     from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
 
     elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
     bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
-    pattern = antenna.termination_pattern(freq_hz)
-    return {
-        f"{metric}_db": float(10 * np.log10(termination_figure(pattern, bearing, elevation, metric)(max(ohm, 1e-3))))
-        for metric in ("rdf", "front_to_back")
-    }
+    return termination_figure(pattern, bearing, elevation, metric)
 
 
 def _curve(antenna, freq_hz: float, values_ohm, figure) -> tuple[tuple[float, ...], ...]:
     """(resistors, the criterion, the front-to-back toward the bearing at the auto elevation) at ``values_ohm``;
     ``figure`` the criterion's figure(r) (longwire.termination_figure), or its values [dB] at ``values_ohm``."""
-    from snrgain.antennas.longwire import AUTO_ELEVATION_RAD, termination_figure
-
-    elevation = getattr(antenna.params, "auto_elevation", AUTO_ELEVATION_RAD)
-    bearing = getattr(antenna, "bearing_rad", getattr(antenna.params, "bearing", 0.0))
-    fb = termination_figure(antenna.termination_pattern(freq_hz), bearing, elevation, "front_to_back")
+    fb = _rated(antenna, antenna.termination_pattern(freq_hz), "front_to_back")
     rs = np.maximum(np.asarray(values_ohm, dtype=float), 1e-3)
 
     def at(f):  # every resistor at once where the pattern takes an array of them
